@@ -1,0 +1,294 @@
+"""Units: one pint registry, header parsing, and species-aware conversions.
+
+Units are converted once, when a file is read.  Inside the package every quantity
+is SI or a documented trade unit:
+
+===================  ==================================  =========================
+quantity             inside the package                  note
+===================  ==================================  =========================
+ion in precipitation amount of the ion [mol m-3]         1 mol m-3 = 1000 umol/L
+gas or particle      amount density of species [mol m-3] or mixing ratio [mol mol-1]
+depth of rain        [mm]                                trade unit (= kg m-2)
+temperature          [K]
+pressure             [Pa]
+relative humidity    fraction [1]
+radiation, heat flux [W m-2]
+deposition           amount of species per area [mol m-2]
+===================  ==================================  =========================
+
+pint checks dimensions; the species layer (:mod:`workbench.species`) adds what pint
+alone cannot: molar mass, charge (equivalents) and the element basis of columns
+such as ``NO3_as_N``.
+"""
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+
+import numpy as np
+import pint
+
+from . import species as _species
+
+#: The package's one unit registry.
+ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+ureg.define("ppm = 1e-6 = ppmv")
+ureg.define("ppb = 1e-9 = ppbv")
+ureg.define("ppt = 1e-12 = pptv")
+ureg.define("fraction = 1")
+Q_ = ureg.Quantity
+
+_HEADER = re.compile(r"^\s*(?P<name>[^\[\]]+?)\s*(?:\[(?P<unit>[^\[\]]*)\])?\s*$")
+_EQ = re.compile(r"(?<![A-Za-z])(p|n|u|µ|m|k)?eq(?![A-Za-z])")
+
+
+@dataclass(frozen=True)
+class Header:
+    """A parsed column header ``name [unit]``."""
+
+    name: str       #: column name without the unit, e.g. ``"NO3_as_N"``
+    unit: str | None  #: unit text as written, or None
+    species: str | None = None  #: species name when the column is one, e.g. ``"NO3"``
+    basis: str | None = None    #: ``"S"``/``"N"`` for ``_as_S``/``_as_N``, else None
+
+
+def parse_header(text: str) -> Header:
+    """Split a column header into name, unit, species and element basis.
+
+    >>> parse_header("NO3_as_N [mg/L]")
+    Header(name='NO3_as_N', unit='mg/L', species='NO3', basis='N')
+    >>> parse_header("site")
+    Header(name='site', unit=None, species=None, basis=None)
+    """
+    m = _HEADER.match(str(text))
+    if not m:
+        return Header(str(text).strip(), None)
+    name = m.group("name").strip()
+    unit = m.group("unit")
+    unit = unit.strip() if unit is not None else None
+    sp, basis = name, None
+    mb = re.match(r"^(?P<sp>.+)_as_(?P<el>[SN])$", name)
+    if mb:
+        sp, basis = mb.group("sp"), mb.group("el")
+    if sp in _species.SPECIES:
+        return Header(name, unit, sp, basis)
+    return Header(name, unit)
+
+
+def parse_unit(text: str):
+    """Parse a unit with pint; ``eq`` is read as ``mol`` and reported.
+
+    Returns
+    -------
+    unit : pint.Unit
+    is_equivalent : bool
+        True when the text used equivalents (``ueq/L``).
+
+    Raises
+    ------
+    ValueError
+        When pint does not know the unit.
+    """
+    t = text.strip().replace("µ", "u").replace("μ", "u")
+    is_eq = bool(_EQ.search(t))
+    t = _EQ.sub(lambda m: (m.group(1) or "") + "mol", t)
+    t = t.replace("%", "percent")
+    t = re.sub(r"(?<=[A-Za-z])(-?\d+)", r"**\1", t)  # m3 -> m**3, m-2 -> m**-2
+    if t in ("1", "-", ""):
+        return ureg.dimensionless, False
+    try:
+        unit = ureg.parse_units(t)
+    except Exception as exc:  # pint raises several types
+        raise ValueError(f"unknown unit {text!r}") from exc
+    return unit, is_eq
+
+
+def convert_plain(values, unit_text: str, target: str):
+    """Convert plain physical values (no species) from `unit_text` to `target`.
+
+    >>> float(convert_plain(20.0, "degC", "K"))
+    293.15
+
+    Raises
+    ------
+    ValueError
+        When the unit is unknown or of the wrong dimension.
+    """
+    unit, is_eq = parse_unit(unit_text)
+    if is_eq:
+        raise ValueError(f"unit {unit_text!r} uses equivalents, which need a species")
+    tgt = ureg.parse_units(target)
+    if unit.dimensionality != tgt.dimensionality:
+        raise ValueError(
+            f"unit {unit_text!r} has dimension {unit.dimensionality}, not {tgt.dimensionality}")
+    return Q_(np.asarray(values, dtype=float), unit).to(tgt).magnitude
+
+
+def _basis_factor(sp: _species.Species, basis: str | None) -> tuple[float, float]:
+    """(molar mass of the basis [kg mol-1], mol of species per mol of basis)."""
+    if basis is None:
+        return sp.molar_mass, 1.0
+    if sp.element != basis:
+        raise ValueError(f"{sp.name} cannot be expressed as {basis}")
+    return _species.element_molar_mass(basis), 1.0 / sp.atoms
+
+
+def concentration_kind(unit_text: str) -> str:
+    """``"mass_density"``, ``"amount_density"`` or ``"mixing_ratio"`` of a unit text.
+
+    >>> concentration_kind("ug/m3"), concentration_kind("ueq/L"), concentration_kind("ppb")
+    ('mass_density', 'amount_density', 'mixing_ratio')
+    """
+    unit, _ = parse_unit(unit_text)
+    dim = unit.dimensionality
+    if dim == ureg.parse_units("kg/m**3").dimensionality:
+        return "mass_density"
+    if dim == ureg.parse_units("mol/m**3").dimensionality:
+        return "amount_density"
+    if dim == ureg.dimensionless.dimensionality:
+        return "mixing_ratio"
+    raise ValueError(f"unit {unit_text!r} is not a concentration "
+                     "(expected mass or amount per volume, or a mixing ratio)")
+
+
+def to_amount(values, unit_text: str, species: str, basis: str | None = None):
+    """Convert concentrations to the amount of the species' formula unit.
+
+    Parameters
+    ----------
+    values : array_like
+        Concentrations as written.
+    unit_text : str
+        Their unit: a mass or amount (or equivalent) per volume (``mg/L``,
+        ``ug/m3``, ``umol/L``, ``ueq/L``), or a mixing ratio (``ppb``, ``nmol/mol``).
+    species : str
+        Species name (``"SO4"``, ``"SO2"``, ``"pNO3"``...).
+    basis : {None, "S", "N"}
+        Element basis of the column (``SO4_as_S``).
+
+    Returns
+    -------
+    amount : ndarray
+        [mol m-3] for a density, or [mol mol-1] for a mixing ratio.
+    kind : str
+        ``"amount_density"`` or ``"mixing_ratio"``.
+
+    Examples
+    --------
+    One sample of 1 mg/L sulfate, written four ways:
+
+    >>> a = to_amount(1.0, "mg/L", "SO4")[0]
+    >>> b = to_amount(1.0 / 96.056 * 1000, "umol/L", "SO4")[0]
+    >>> c = to_amount(2 / 96.056 * 1000, "ueq/L", "SO4")[0]
+    >>> d = to_amount(32.06 / 96.056, "mg/L", "SO4", basis="S")[0]
+    >>> bool(np.allclose([a, b, c, d], a))
+    True
+    """
+    sp = _species.get(species)
+    unit, is_eq = parse_unit(unit_text)
+    kind = concentration_kind(unit_text)
+    molar_mass, per_basis = _basis_factor(sp, basis)
+    x = np.asarray(values, dtype=float)
+    if kind == "mass_density":
+        if is_eq:
+            raise ValueError(f"unit {unit_text!r} mixes mass and equivalents")
+        out = Q_(x, unit).to("kg/m**3").magnitude / molar_mass * per_basis
+        return out, "amount_density"
+    if kind == "amount_density":
+        out = Q_(x, unit).to("mol/m**3").magnitude
+        if is_eq:
+            if sp.eq_per_mol == 0:
+                raise ValueError(f"{species} carries no equivalents")
+            out = out / sp.eq_per_mol if basis is None else out / _species.EQ_PER_MOL_ELEMENT[basis]
+        return out * per_basis, "amount_density"
+    if is_eq:
+        raise ValueError(f"unit {unit_text!r}: a mixing ratio in equivalents is not meaningful")
+    return Q_(x, unit).to("dimensionless").magnitude * per_basis, "mixing_ratio"
+
+
+def molar_density_air(temperature, pressure):
+    """Molar density of air from the ideal-gas law [mol m-3].
+
+    Parameters
+    ----------
+    temperature : array_like
+        [K]
+    pressure : array_like
+        [Pa]
+
+    Notes
+    -----
+    :math:`n/V = p / (R T)` with R from CODATA 2018.
+
+    >>> round(float(molar_density_air(273.15, 101325.0)), 3)
+    44.615
+    """
+    from .constants import GAS_CONSTANT
+    return pressure / (GAS_CONSTANT * temperature)
+
+
+def amount_at_reference_to_ambient(amount, ref_temperature, ref_pressure, temperature,
+                                   pressure):
+    """Amount density stated at a reference state, expressed at ambient T and p [mol m-3].
+
+    A concentration reported "at 20 degC and 1013 hPa" describes a volume of air at
+    that state; the same air at ambient T, p occupies V_amb = V_ref (p_ref/p)(T/T_ref).
+    """
+    return amount * (pressure / ref_pressure) * (ref_temperature / temperature)
+
+
+# --- deposition: mol m-2 of a species -> reported units ---------------------------------
+
+def deposition_in(amount_m2, species: str, unit: str):
+    """Convert a deposition of a species [mol m-2] into a reported unit.
+
+    Parameters
+    ----------
+    amount_m2 : array_like
+        Deposition as amount of the species' formula unit. [mol m-2]
+    species : str
+        Species name.
+    unit : {"kg_ha", "eq_ha", "mmol_m2", "keq_ha"}
+        ``kg_ha`` is kilograms of the element (S or N) per hectare for budget
+        species, never kilograms of SO4 or NO3; ``eq_ha`` uses 2 eq per mol S and
+        1 eq per mol N (common practice), or the ionic charge for other ions.
+
+    Examples
+    --------
+    1 mmol/m2 of sulfate is 0.3206 kg S/ha and 20 eq/ha:
+
+    >>> round(float(deposition_in(1e-3, "SO4", "kg_ha")), 4), float(deposition_in(1e-3, "SO4", "eq_ha"))
+    (0.3206, 20.0)
+    """
+    sp = _species.get(species)
+    x = amount_m2
+    per_ha = 1e4  # m2 per ha
+    if unit == "mmol_m2":
+        return x * 1e3 * (sp.atoms if sp.element else 1)
+    if unit == "kg_ha":
+        if sp.element is None:
+            return x * sp.molar_mass * per_ha
+        return x * sp.atoms * _species.element_molar_mass(sp.element) * per_ha
+    if unit in ("eq_ha", "keq_ha"):
+        eq = (x * sp.atoms * _species.EQ_PER_MOL_ELEMENT[sp.element] if sp.element
+              else x * sp.eq_per_mol) * per_ha
+        return eq / 1e3 if unit == "keq_ha" else eq
+    raise ValueError(f"unknown deposition unit {unit!r}; use kg_ha, eq_ha, keq_ha or mmol_m2")
+
+
+def element_deposition_in(amount_m2, element: str, unit: str):
+    """Convert a deposition of an element [mol m-2 of S or N] into a reported unit.
+
+    >>> round(float(element_deposition_in(1e-3, "N", "kg_ha")), 4)
+    0.1401
+    """
+    per_ha = 1e4
+    if unit == "mmol_m2":
+        return amount_m2 * 1e3
+    if unit == "kg_ha":
+        return amount_m2 * _species.element_molar_mass(element) * per_ha
+    if unit == "eq_ha":
+        return amount_m2 * _species.EQ_PER_MOL_ELEMENT[element] * per_ha
+    if unit == "keq_ha":
+        return amount_m2 * _species.EQ_PER_MOL_ELEMENT[element] * per_ha / 1e3
+    raise ValueError(f"unknown deposition unit {unit!r}; use kg_ha, eq_ha, keq_ha or mmol_m2")
