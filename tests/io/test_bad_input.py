@@ -1,0 +1,204 @@
+"""Bad input: one InputError whose message names file, line, column, value, expectation.
+
+Each case writes a small broken file and asserts the whole message, so that a change
+of wording is a deliberate change of the public interface.
+"""
+import pytest
+
+from workbench.errors import InputError
+from workbench.io import read_air, read_met, read_precipitation, read_sites
+
+from tiny_inputs import PRECIP, SITES, met_text
+
+HEAD = PRECIP.splitlines()[0]
+ROW = "alpha,2020-01-07T09:00,2020-01-14T09:00,w1,12.0,11.0,4.8,20.0,1.5,0.3,25.0,1.0,0.6,"
+
+
+def _precip(write, rows, head=HEAD):
+    return write("p.csv", head + "\n" + "\n".join(rows) + "\n")
+
+
+@pytest.fixture
+def cat(write):
+    return read_sites(write("sites.toml", SITES))
+
+
+def _raises(fn, *args, match):
+    with pytest.raises(InputError) as exc:
+        fn(*args)
+    msg = str(exc.value)
+    assert match in msg, msg
+    return exc.value
+
+
+def test_missing_required_column(write, cat):
+    p = _precip(write, [ROW.replace(",12.0,", ",")], head=HEAD.replace("gauge_depth [mm],", ""))
+    e = _raises(read_precipitation, p, cat, match="p.csv, line 1, column 'gauge_depth': "
+                "missing required column, expected a column named 'gauge_depth'")
+    assert e.line == 1
+
+
+def test_unknown_unit(write, cat):
+    p = _precip(write, [ROW], head=HEAD.replace("SO4 [mg/L]", "SO4 [mg/furlong]"))
+    _raises(read_precipitation, p, cat, match="p.csv, line 1, column 'SO4 [mg/furlong]': "
+            "unknown or dimensionally wrong unit")
+
+
+def test_dimensionally_wrong_unit(write, cat):
+    p = _precip(write, [ROW], head=HEAD.replace("gauge_depth [mm]", "gauge_depth [kg]"))
+    _raises(read_precipitation, p, cat, match="column 'gauge_depth [kg]': unknown or "
+            "dimensionally wrong unit")
+
+
+def test_mixing_ratio_in_precipitation(write, cat):
+    p = _precip(write, [ROW], head=HEAD.replace("SO4 [mg/L]", "SO4 [ppb]"))
+    _raises(read_precipitation, p, cat, match="column 'SO4 [ppb]': unknown or dimensionally "
+            "wrong unit (a mixing ratio): got 'ppb', expected amount density")
+
+
+def test_text_in_numeric_column(write, cat):
+    p = _precip(write, [ROW.replace(",4.8,", ",acid,")])
+    _raises(read_precipitation, p, cat, match="p.csv, line 2, column 'pH': text in a numeric "
+            "column: got 'acid', expected a number (or empty for missing)")
+
+
+def test_negative_depth(write, cat):
+    p = _precip(write, [ROW.replace(",12.0,", ",-2,")])
+    _raises(read_precipitation, p, cat, match="p.csv, line 2, column 'gauge_depth [mm]': "
+            "negative depth: got '-2', expected a depth >= 0")
+
+
+def test_end_before_start(write, cat):
+    p = _precip(write, [ROW.replace("2020-01-14T09:00", "2020-01-06T09:00")])
+    _raises(read_precipitation, p, cat, match="p.csv, line 2, column 'end': end before start: "
+            "got '2020-01-06T09:00', expected a time after the start 2020-01-07T09:00")
+
+
+def test_overlapping_samples(write, cat):
+    second = ROW.replace("2020-01-07T09:00,2020-01-14T09:00", "2020-01-13T09:00,2020-01-20T09:00")
+    p = _precip(write, [ROW, second])
+    _raises(read_precipitation, p, cat, match="p.csv, line 3, column 'start': overlapping "
+            "samples from the same sampler: got '2020-01-13T09:00', expected a start at or "
+            "after the end 2020-01-14T09:00 of the sample on line 2")
+
+
+def test_overlapping_air_periods_same_species(write, cat):
+    p = write("a.csv", "# reference_state: ambient\nsite,start,end,sampler_id,SO2 [ug/m3]\n"
+              "alpha,2020-01-01T00:00,2020-01-08T00:00,s,1\n"
+              "alpha,2020-01-07T00:00,2020-01-14T00:00,s,1\n")
+    _raises(read_air, p, cat, match="a.csv, line 4, column 'start': overlapping SO2 periods "
+            "from the same sampler")
+
+
+def test_duplicate_hourly_timestamp(write, cat):
+    text = met_text(n_hours=3)
+    lines = text.splitlines()
+    p = write("m.csv", "\n".join(lines + [lines[-1]]) + "\n")
+    _raises(read_met, p, cat, match="m.csv, line 6, column 'time': duplicate hourly timestamp: "
+            "got '2020-01-07T03:00', expected one row per site and hour (also on line 5)")
+
+
+def test_site_not_in_catalogue(write, cat):
+    p = _precip(write, [ROW.replace("alpha", "gamma")])
+    _raises(read_precipitation, p, cat, match="p.csv, line 2, column 'site': site not in the "
+            "catalogue: got 'gamma', expected one of alpha, beta")
+
+
+def test_unknown_land_use(write):
+    p = write("s.toml", SITES.replace('land_use = "grass"', 'land_use = "grassland"'))
+    _raises(read_sites, p, match="s.toml, line 7, column 'land_use': unknown land-use class: "
+            "got 'grassland', expected one of conifer_forest")
+
+
+def test_unknown_land_use_suggests(write):
+    p = write("s.toml", SITES.replace('land_use = "grass"', 'land_use = "gras"'))
+    _raises(read_sites, p, match="(did you mean 'grass'?)")
+
+
+def test_ph_out_of_range(write, cat):
+    p = _precip(write, [ROW.replace(",4.8,", ",15.2,")])
+    _raises(read_precipitation, p, cat, match="p.csv, line 2, column 'pH': pH outside 0-14: "
+            "got '15.2', expected a pH between 0 and 14")
+
+
+def test_empty_file(write, cat):
+    p = write("p.csv", "")
+    _raises(read_precipitation, p, cat, match="p.csv: empty file, expected a header line and data rows")
+
+
+def test_header_only(write, cat):
+    p = write("p.csv", HEAD + "\n")
+    _raises(read_precipitation, p, cat, match="p.csv, line 1: no data rows")
+
+
+def test_bad_timestamp(write, cat):
+    p = _precip(write, [ROW.replace("2020-01-07T09:00", "07/01/2020 09:00")])
+    _raises(read_precipitation, p, cat, match="p.csv, line 2, column 'start': not an ISO 8601 "
+            "timestamp: got '07/01/2020 09:00'")
+
+
+def test_unknown_flag_code(write, cat):
+    p = _precip(write, [ROW + "Q"])
+    _raises(read_precipitation, p, cat, match="p.csv, line 2, column 'flags': unknown flag code: got 'Q'")
+
+
+def test_met_not_on_the_hour(write, cat):
+    text = met_text(n_hours=3).replace("T02:00", "T02:30")
+    p = write("m.csv", text)
+    _raises(read_met, p, cat, match="m.csv, line 4, column 'time': timestamp not on the hour: "
+            "got '2020-01-07T02:30'")
+
+
+def test_met_missing_unit(write, cat):
+    text = met_text(n_hours=3).replace("wind_speed [m/s]", "wind_speed")
+    p = write("m.csv", text)
+    _raises(read_met, p, cat, match="m.csv, line 2, column 'wind_speed': column has no unit, "
+            "expected a unit in square brackets")
+
+
+def test_air_without_reference_state(write, cat):
+    p = write("a.csv", "site,start,end,SO2 [ug/m3]\nalpha,2020-01-01T00:00,2020-01-08T00:00,1\n")
+    _raises(read_air, p, cat, match="a.csv, line 1, column 'reference_state': reference state "
+            "of mass concentrations not stated")
+
+
+def test_two_columns_for_one_species(write, cat):
+    p = _precip(write, [ROW + ",1.0"], head=HEAD + ",SO4_as_S [mg/L]")
+    _raises(read_precipitation, p, cat, match="column 'SO4_as_S [mg/L]': two columns for one "
+            "species, expected one column for SO4 (already given as 'SO4 [mg/L]')")
+
+
+def test_sites_wrong_type(write):
+    p = write("s.toml", SITES.replace("latitude = 52.0", 'latitude = "52 N"'))
+    _raises(read_sites, p, match="s.toml, line 4, column 'latitude': wrong type: got '52 N', "
+            "expected a int or float (degrees north, -90..90)")
+
+
+def test_sites_unknown_key(write):
+    p = write("s.toml", SITES.replace("utc_offset_h = 1", "utc_offset_h = 1\nwind_hieght_m = 3"))
+    _raises(read_sites, p, match="column 'wind_hieght_m': unknown key, expected one of the "
+            "documented site keys (did you mean 'wind_height_m'?)")
+
+
+def test_sites_missing_key(write):
+    p = write("s.toml", SITES.replace('elevation_m = 20.0\n', "", 1))
+    _raises(read_sites, p, match="s.toml, line 1, column 'elevation_m': missing required key")
+
+
+def test_sites_duplicate_id(write):
+    p = write("s.toml", SITES.replace('id = "beta"', 'id = "alpha"'))
+    _raises(read_sites, p, match="column 'id': duplicate site id: got 'alpha'")
+
+
+def test_invalid_toml(write):
+    p = write("s.toml", SITES.replace('name = "Alpha Test Field"', 'name = Alpha'))
+    _raises(read_sites, p, match="s.toml, line 3: invalid TOML")
+
+
+def test_file_not_found(tmp_path, cat):
+    _raises(read_precipitation, tmp_path / "nope.csv", cat, match="nope.csv: file not found")
+
+
+def test_malformed_row(write, cat):
+    p = _precip(write, [ROW + ",extra,fields"])
+    _raises(read_precipitation, p, cat, match="p.csv, line 2: malformed CSV row")

@@ -1,0 +1,70 @@
+"""Tiny input files for reader tests (invented sites)."""
+
+SITES = """\
+[[site]]
+id = "alpha"
+name = "Alpha Test Field"
+latitude = 52.0
+longitude = 5.0
+elevation_m = 20.0
+land_use = "grass"
+canopy_height_m = 0.1
+wind_height_m = 10.0
+sampler_height_m = 3.0
+utc_offset_h = 1
+receptors = ["conifer_forest"]
+
+[site.critical_loads]
+cl_max_s = 1200.0
+cl_nut_n = 900.0
+
+[[site]]
+id = "beta"
+name = "Beta Test Wood"
+latitude = 53.0
+longitude = 6.0
+elevation_m = 400.0
+land_use = "deciduous_forest"
+canopy_height_m = 20.0
+wind_height_m = 30.0
+sampler_height_m = 25.0
+utc_offset_h = 0
+lai_min = 0.5
+lai_max = 5.0
+"""
+
+PRECIP = """\
+site,start,end,sampler_id,gauge_depth [mm],sample_depth [mm],pH,conductivity [uS/cm],SO4 [mg/L],NO3_as_N [mg/L],NH4 [ueq/L],Cl [mg/L],Na [mg/L],flags
+alpha,2020-01-07T09:00,2020-01-14T09:00,w1,12.0,11.0,4.8,20.0,1.5,0.3,25.0,1.0,0.6,
+alpha,2020-01-14T09:00,2020-01-21T09:00,w1,0.0,0.0,,,,,,,,
+alpha,2020-01-21T09:00,2020-01-28T09:00,w1,5.0,4.5,5.1,12.0,<0.05,0.2,10.0,0.5,0.3,T
+beta,2020-01-07T09:00+00:00,2020-01-14T09:00+00:00,,20.0,19.0,4.6,25.0,2.0,0.4,30.0,2.0,1.2,
+"""
+
+AIR = """\
+# reference_state: ambient
+site,start,end,sampler_id,SO2 [ug/m3],HNO3_as_N [ug/m3],NH3 [ug/m3],pSO4 [ug/m3],NO2 [ppb],method_NH3
+alpha,2020-01-07T09:00,2020-01-14T09:00,fp1,2.0,0.1,1.5,1.2,5.0,filter pack
+alpha,2020-01-14T09:00,2020-01-21T09:00,fp1,<0.1,0.2,1.0,1.0,4.0,filter pack
+beta,2020-01-07T09:00,2020-01-14T09:00,fp2,3.0,0.3,,2.0,,
+"""
+
+
+def met_text(n_hours=48, site="alpha", start="2020-01-07T01:00", rh_unit="%", rh_scale=1.0):
+    import numpy as np
+    import pandas as pd
+    t = pd.date_range(start, periods=n_hours, freq="h")
+    hours = np.arange(n_hours)
+    rows = ["# time_label: end",
+            f"site,time,wind_speed [m/s],temperature [degC],relative_humidity [{rh_unit}],"
+            "solar_radiation [W/m2],precipitation [mm],pressure [hPa],cloud_cover [1]"]
+    for i, ti in enumerate(t):
+        # daytime radiation only between 09 and 15 local (= UTC+1) to stay plausible in January
+        local = (ti.hour) % 24
+        sr = 200.0 if 10 <= local <= 14 else 0.0
+        rows.append(f"{site},{ti:%Y-%m-%dT%H:%M},{3 + (i % 5) * 0.5},{5 + np.sin(i / 4):.2f},"
+                    f"{(80 + 10 * np.cos(i / 5)) * rh_scale:.3f},{sr},{0.5 if i % 7 == 0 else 0.0},"
+                    f"1010.0,0.5")
+    return "\n".join(rows) + "\n"
+
+

@@ -1,0 +1,72 @@
+"""Pieces shared by the readers of samples, concentrations and meteorology."""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from ..errors import InputError, suggest
+from .table import RawTable
+
+
+def check_sites(tab: RawTable, catalogue) -> np.ndarray:
+    """The ``site`` column as an array, every value checked against the catalogue."""
+    sites = tab.text("site")
+    known = np.isin(sites, np.array(catalogue.ids, dtype=object))
+    if not known.all():
+        i = int(np.flatnonzero(~known)[0])
+        raise tab.error("site not in the catalogue", row=i, column="site", value=sites[i],
+                        expected="one of " + ", ".join(catalogue.ids) + suggest(sites[i], catalogue.ids))
+    return sites
+
+
+def check_intervals(tab: RawTable, start, end):
+    """Raise when an end is not after its start."""
+    bad = ~(end > start)
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        raise tab.error("end before start", row=i, column="end", value=tab.frame["end"].iloc[i],
+                        expected=f"a time after the start {tab.frame['start'].iloc[i]}")
+
+
+def check_overlaps(tab: RawTable, sites, samplers, start, end, mask=None, what="sample"):
+    """Raise when two intervals of the same site and sampler overlap.
+
+    Parameters
+    ----------
+    mask : array of bool, optional
+        Rows taking part (e.g. those that hold a value of one species).
+    """
+    idx = np.arange(len(start)) if mask is None else np.flatnonzero(mask)
+    if len(idx) < 2:
+        return
+    df = pd.DataFrame({"i": idx, "site": sites[idx], "sampler": samplers[idx],
+                       "start": start[idx], "end": end[idx]})
+    df = df.sort_values(["site", "sampler", "start", "end"], kind="stable")
+    same = (df["site"].to_numpy()[1:] == df["site"].to_numpy()[:-1]) & (
+        df["sampler"].to_numpy()[1:] == df["sampler"].to_numpy()[:-1])
+    over = same & (df["start"].to_numpy()[1:] < df["end"].to_numpy()[:-1])
+    if over.any():
+        k = int(np.flatnonzero(over)[0])
+        i_prev, i = int(df["i"].iloc[k]), int(df["i"].iloc[k + 1])
+        raise tab.error(f"overlapping {what}s from the same sampler", row=i, column="start",
+                        value=tab.frame["start"].iloc[i],
+                        expected=f"a start at or after the end {tab.frame['end'].iloc[i_prev]} "
+                        f"of the {what} on line {int(tab.lines[i_prev])}")
+
+
+def join_reasons(parts) -> np.ndarray:
+    """Join lists of per-row reason arrays ("" = none) into "; "-separated text."""
+    if not parts:
+        return np.array([], dtype=object)
+    out = np.asarray(parts[0], dtype=object).copy()
+    for p in parts[1:]:
+        p = np.asarray(p, dtype=object)
+        both = (out != "") & (p != "")
+        out = np.where(both, out + "; " + p, np.where(p != "", p, out))
+    return out
+
+
+def unit_error(tab: RawTable, name: str, exc: Exception, expected: str) -> InputError:
+    return InputError(f"unknown or dimensionally wrong unit ({exc})", file=tab.path,
+                      line=tab.header_line, column=tab.raw_headers[name],
+                      value=tab.headers[name].unit, expected=expected)

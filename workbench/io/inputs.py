@@ -1,0 +1,125 @@
+"""Load a study's inputs together, with the cross-file checks and one ledger."""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from .ledger import Ledger
+from .met import read_met
+from .metchecks import gauge_comparison
+from .samples import read_air, read_precipitation
+from .sites import SiteCatalogue, read_sites
+
+
+@dataclass
+class Inputs:
+    """Everything read for a study.
+
+    Attributes
+    ----------
+    catalogue : SiteCatalogue
+    precipitation, air, met : xarray.Dataset or None
+    ledger : Ledger
+        All rows of all files.
+    gauge_check : pandas.DataFrame or None
+        Met precipitation against gauge depth per sample.
+    paths : dict
+        Role -> Path of each file read.
+    """
+
+    catalogue: SiteCatalogue
+    precipitation: xr.Dataset | None = None
+    air: xr.Dataset | None = None
+    met: xr.Dataset | None = None
+    ledger: Ledger = field(default_factory=Ledger)
+    gauge_check: pd.DataFrame | None = None
+    paths: dict = field(default_factory=dict)
+
+    def describe(self) -> str:
+        """A plain-text account of what was loaded (sites, periods, rows)."""
+        out = [f"sites ({len(self.catalogue)}):"]
+        for s in self.catalogue:
+            rec = ", ".join(s.receptors) if s.receptors else "none"
+            out.append(f"  {s.id:<10} {s.name} ({s.land_use}; lat {s.latitude:.2f}, "
+                       f"lon {s.longitude:.2f}, {s.elevation_m:.0f} m; collector {s.collector}; "
+                       f"further receptors: {rec})")
+        for role, ds, dim in (("precipitation", self.precipitation, "sample"),
+                              ("air", self.air, "period")):
+            if ds is None:
+                out.append(f"{role}: not given")
+                continue
+            out.append(f"{role}: {ds.sizes[dim]} {dim}s from {str(ds['start'].values.min())[:16]} "
+                       f"to {str(ds['end'].values.max())[:16]} UTC")
+            per_site = pd.Series(ds["site"].values).value_counts().sort_index()
+            out.append("  per site: " + ", ".join(f"{k} {v}" for k, v in per_site.items()))
+        if self.met is None:
+            out.append("met: not given")
+        else:
+            t = self.met["time"].values
+            out.append(f"met: {self.met.sizes['site']} sites x {self.met.sizes['time']} hours "
+                       f"from {str(t[0])[:16]} to {str(t[-1])[:16]} UTC (end of hour)")
+        out.append("")
+        out.append("rows per file:")
+        summ = self.ledger.summary()
+        out.append(summ.to_string(index=False))
+        reasons = self.ledger.reasons()
+        if not reasons.empty:
+            out.append("")
+            out.append("reasons:")
+            out.append(reasons.to_string(index=False))
+        if self.ledger.notes:
+            out.append("")
+            out.append("notes:")
+            out.extend(f"  {n}" for n in self.ledger.notes)
+        return "\n".join(out)
+
+
+def load_inputs(sites, precipitation=None, air=None, met=None, reference_state=None,
+                progress=None) -> Inputs:
+    """Read every given file and cross-check them.
+
+    Parameters
+    ----------
+    sites : str or Path
+        The site catalogue (required).
+    precipitation, air, met : str or Path, optional
+    reference_state : str, optional
+        Reference state of mass concentrations in `air` when the file states none.
+    progress : callable, optional
+        Called with a short text before each file (for progress bars).
+
+    Returns
+    -------
+    Inputs
+    """
+    say = progress or (lambda text: None)
+    say("site catalogue")
+    cat = read_sites(sites)
+    inp = Inputs(cat, paths={"sites": Path(sites)})
+    if precipitation is not None:
+        say("precipitation samples")
+        inp.precipitation, led = read_precipitation(precipitation, cat)
+        inp.ledger = inp.ledger + led
+        inp.paths["precipitation"] = Path(precipitation)
+    if air is not None:
+        say("air concentrations")
+        inp.air, led = read_air(air, cat, reference_state=reference_state)
+        inp.ledger = inp.ledger + led
+        inp.paths["air"] = Path(air)
+    if met is not None:
+        say("hourly meteorology")
+        inp.met, led = read_met(met, cat)
+        inp.ledger = inp.ledger + led
+        inp.paths["met"] = Path(met)
+    if inp.met is not None and inp.precipitation is not None:
+        gc = gauge_comparison(inp.met, inp.precipitation)
+        inp.gauge_check = gc
+        bad = gc[gc["suspicious"]]
+        if len(bad):
+            inp.ledger.add_reason(inp.paths["precipitation"], bad["line"].to_numpy(),
+                                  "hourly met precipitation over the sample far from the gauge depth")
+    return inp

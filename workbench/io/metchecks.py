@@ -1,0 +1,234 @@
+"""Plausibility checks of hourly meteorology.
+
+Nothing here refuses a file.  A value that cannot be right (a unit slip, a cumulative
+series) is set to NaN and its row flagged with a hint; a value that is doubtful but
+usable (pressure reduced to sea level, radiation at night) is kept and flagged.
+Thresholds are common practice in station QA unless a source is named.
+"""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from ..constants import STANDARD_PRESSURE, ZERO_CELSIUS
+from .common import join_reasons
+
+#: Hard ranges (internal units) beyond which a value is masked (common practice).
+RANGES = {
+    "wind_speed": (0.0, 75.0),
+    "temperature": (ZERO_CELSIUS - 90.0, ZERO_CELSIUS + 60.0),
+    "relative_humidity": (0.0, 1.05),
+    "precipitation": (0.0, 250.0),
+    "pressure": (40000.0, 110000.0),
+    "solar_radiation": (-20.0, 1500.0),
+    "cloud_cover": (0.0, 1.0),
+    "friction_velocity": (0.0, 5.0),
+    "sensible_heat_flux": (-600.0, 1200.0),
+    "surface_wet": (0.0, 1.0),
+    "snow_cover": (0.0, 1.0),
+}
+#: Night is when the sun is this far below the horizon [degree] (allows for refraction
+#: and the hour's averaging; common practice).
+NIGHT_ELEVATION_DEG = -3.0
+#: Irradiance above which a night hour is suspicious [W m-2] (common practice).
+NIGHT_RADIATION_MAX = 25.0
+#: Share of suspicious night hours at which the time base is questioned [-].
+NIGHT_SHARE_HINT = 0.05
+
+
+def solar_elevation_deg(time_utc, latitude, longitude):
+    """Approximate solar elevation [degree] at UTC times (for QA only).
+
+    Declination after Cooper (1969), Solar Energy 12, 333; equation of time after
+    Spencer (1971), Search 2(5), 172 (both as summarised by Iqbal 1983, An Introduction
+    to Solar Radiation, ch. 1).  Accuracy about 0.5 degree, enough to tell day from night.
+
+    Parameters
+    ----------
+    time_utc : array of datetime64
+    latitude, longitude : array_like
+        [degree]
+    """
+    t = pd.DatetimeIndex(np.asarray(time_utc).ravel())
+    doy = t.day_of_year.to_numpy()
+    hours = (t.hour + t.minute / 60.0).to_numpy()
+    gamma = 2 * np.pi * (doy - 1) / 365.0
+    decl = np.deg2rad(23.45) * np.sin(2 * np.pi * (284 + doy) / 365.0)
+    eot_min = 229.18 * (0.000075 + 0.001868 * np.cos(gamma) - 0.032077 * np.sin(gamma)
+                        - 0.014615 * np.cos(2 * gamma) - 0.040849 * np.sin(2 * gamma))
+    solar_time = hours + np.asarray(longitude).ravel() / 15.0 + eot_min / 60.0
+    h = np.deg2rad(15.0 * (solar_time - 12.0))
+    lat = np.deg2rad(np.asarray(latitude).ravel())
+    s = np.sin(lat) * np.sin(decl) + np.cos(lat) * np.cos(decl) * np.cos(h)
+    return np.rad2deg(np.arcsin(np.clip(s, -1, 1))).reshape(np.shape(time_utc))
+
+
+def expected_station_pressure(elevation_m):
+    """Station pressure of the ICAO standard atmosphere at an elevation [Pa].
+
+    p = p0 (1 - 2.25577e-5 z)^5.25588 (ICAO Doc 7488, troposphere).
+    """
+    return STANDARD_PRESSURE * (1 - 2.25577e-5 * np.asarray(elevation_m, float)) ** 5.25588
+
+
+def run_row_checks(values, sites, t, catalogue, raw_units):
+    """Run the per-row and per-site checks.
+
+    Returns
+    -------
+    reasons : ndarray of str
+        "; "-joined flags per row.
+    values : dict
+        Same arrays with implausible values set to NaN.
+    """
+    n = len(sites)
+    values = {k: np.array(v, float) for k, v in values.items()}
+    parts = []
+    frame = pd.DataFrame({"site": sites, "month": t.astype("datetime64[M]")})
+
+    def mask(name, sel, reason):
+        if sel.any():
+            values[name] = np.where(sel, np.nan, values[name])
+            parts.append(np.where(sel, reason, ""))
+
+    def flag(sel, reason):
+        if sel.any():
+            parts.append(np.where(sel, reason, ""))
+
+    # relative humidity written as a fraction under a % header (or the reverse)
+    if "relative_humidity" in values:
+        rh = values["relative_humidity"]
+        unit = str(raw_units.get("relative_humidity", "")).strip()
+        gmax = frame.assign(v=rh).groupby(["site", "month"])["v"].transform("max").to_numpy()
+        gcount = frame.assign(v=rh).groupby(["site", "month"])["v"].transform("count").to_numpy()
+        if unit in ("%", "percent"):
+            mask("relative_humidity", (gmax <= 0.015) & (gcount >= 24),
+                 "relative humidity looks like a fraction (0-1) although the header says %; masked")
+        else:
+            mask("relative_humidity", (gmax > 1.5) & (gcount >= 24),
+                 "relative humidity looks like % although the header says a fraction; masked")
+    # pressure: unit slips and reduction to sea level
+    if "pressure" in values:
+        p = values["pressure"]
+        elev = np.array([catalogue[s].elevation_m for s in sites], float)
+        p_exp = expected_station_pressure(elev)
+        med = frame.assign(v=p).groupby("site")["v"].transform("median").to_numpy()
+        ratio = med / p_exp
+        unit_slip = (ratio < 0.5) | (ratio > 2.0)
+        mask("pressure", unit_slip,
+             "pressure far from the station pressure expected at the site's elevation "
+             "(a unit slip such as kPa for hPa?); masked")
+        sea = (~unit_slip & (elev > 200) & (np.abs(med - STANDARD_PRESSURE) < np.abs(med - p_exp))
+               & (np.abs(ratio - 1) > 0.015))
+        flag(sea, "pressure looks reduced to sea level, not station pressure; kept")
+    # solar radiation units
+    if "solar_radiation" in values:
+        sr = values["solar_radiation"]
+        g = frame.assign(v=sr).groupby("site")["v"]
+        smax, scount = g.transform("max").to_numpy(), g.transform("count").to_numpy()
+        lat = np.array([catalogue[s].latitude for s in sites], float)
+        mask("solar_radiation", smax > RANGES["solar_radiation"][1],
+             "solar radiation above 1500 W/m2 at this site: unit likely not W/m2; masked")
+        mask("solar_radiation", (smax < 50) & (scount >= 24 * 60) & (np.abs(lat) < 60),
+             "solar radiation never above 50 W/m2 at this site: unit likely not W/m2; masked")
+    # cumulative precipitation
+    if "precipitation" in values:
+        pr = values["precipitation"]
+        order = np.lexsort((t, sites))
+        ps, ss = pr[order], sites[order]
+        d = np.diff(ps)
+        same = ss[1:] == ss[:-1]
+        df = pd.DataFrame({"site": ss[1:][same], "neg": (d[same] < 0), "nz": ps[1:][same] > 0})
+        stats = df.groupby("site").agg(neg=("neg", "mean"), nz=("nz", "mean"))
+        pmax = pd.Series(pr).groupby(sites).max()
+        cum_sites = [s for s in stats.index
+                     if stats.loc[s, "nz"] > 0.5 and stats.loc[s, "neg"] < 0.1 and pmax[s] > 10]
+        mask("precipitation", np.isin(sites, cum_sites),
+             "precipitation looks cumulative, not hourly; masked")
+    # hard ranges
+    for name, (lo, hi) in RANGES.items():
+        if name in values:
+            v = values[name]
+            mask(name, (v < lo) | (v > hi), f"{name} outside {lo:g}..{hi:g}; masked")
+    # radiation at night
+    if "solar_radiation" in values:
+        lat = np.array([catalogue[s].latitude for s in sites], float)
+        lon = np.array([catalogue[s].longitude for s in sites], float)
+        mid = t - np.timedelta64(30, "m")
+        elev = solar_elevation_deg(mid, lat, lon)
+        night = elev < NIGHT_ELEVATION_DEG
+        bad = night & (values["solar_radiation"] > NIGHT_RADIATION_MAX)
+        share = pd.Series(bad[night]).groupby(sites[night]).mean() if night.any() else pd.Series(dtype=float)
+        systematic = np.isin(sites, share.index[share > NIGHT_SHARE_HINT].tolist())
+        flag(bad & systematic, "solar radiation at night at many hours: check utc_offset_h "
+             "and whether times label the start or the end of the hour")
+        flag(bad & ~systematic, "solar radiation above 25 W/m2 at night")
+    return join_reasons(parts) if parts else np.full(n, "", object), values
+
+
+def describe_gaps(met) -> list[str]:
+    """Text notes on missing hours per site between its first and last row."""
+    notes = []
+    present = met["row_present"].values
+    times = met["time"].values
+    for i, site in enumerate(met["site"].values):
+        p = present[i]
+        if not p.any():
+            notes.append(f"met {site}: no rows")
+            continue
+        a, b = np.flatnonzero(p)[[0, -1]]
+        inner = ~p[a:b + 1]
+        n_miss = int(inner.sum())
+        if n_miss == 0:
+            notes.append(f"met {site}: complete hourly record {times[a]} to {times[b]}")
+            continue
+        edges = np.diff(np.concatenate([[0], inner.astype(int), [0]]))
+        starts, ends = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
+        k = int(np.argmax(ends - starts))
+        notes.append(f"met {site}: {n_miss} missing hours in {len(starts)} gaps; longest "
+                     f"{int(ends[k] - starts[k])} h from {times[a + starts[k]]}")
+    return notes
+
+
+def gauge_comparison(met, samples, low=0.5, high=2.0, min_depth_mm=2.0):
+    """Compare hourly met precipitation summed over each sample with its gauge depth.
+
+    Parameters
+    ----------
+    met : xarray.Dataset
+        Hourly met (site, time) with ``precipitation`` [mm], ``time`` = end of hour.
+    samples : xarray.Dataset
+        Precipitation samples (dim ``sample``).
+    low, high : float
+        Accepted range of the ratio met / gauge [-] (common practice: a factor of two).
+    min_depth_mm : float
+        Smaller depths are not judged [mm].
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``line, site, start, end, gauge_depth, met_depth, met_hours_missing, ratio,
+        suspicious`` for every sample of a site that has met.
+    """
+    sites = samples["site"].values.astype(str)
+    have = np.isin(sites, met["site"].values.astype(str))
+    out = pd.DataFrame({"line": samples["line"].values[have], "site": sites[have],
+                        "start": samples["start"].values[have], "end": samples["end"].values[have],
+                        "gauge_depth": samples["gauge_depth"].values[have]})
+    if out.empty:
+        return out.assign(met_depth=[], met_hours_missing=[], ratio=[], suspicious=[])
+    pr = met["precipitation"].values
+    cs = np.concatenate([np.zeros((pr.shape[0], 1)), np.nancumsum(pr, axis=1)], axis=1)
+    cm = np.concatenate([np.zeros((pr.shape[0], 1)), np.cumsum(np.isnan(pr), axis=1)], axis=1)
+    times = met["time"].values
+    si = pd.Index(met["site"].values.astype(str)).get_indexer(out["site"])
+    a = np.searchsorted(times, out["start"].to_numpy(), side="right")
+    b = np.searchsorted(times, out["end"].to_numpy(), side="right")
+    hours = ((out["end"] - out["start"]) / np.timedelta64(1, "h")).to_numpy()
+    out["met_depth"] = cs[si, b] - cs[si, a]
+    out["met_hours_missing"] = (cm[si, b] - cm[si, a]) + (hours - (b - a))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        out["ratio"] = out["met_depth"] / out["gauge_depth"]
+    judged = (out["met_hours_missing"] == 0) & (np.maximum(out["gauge_depth"], out["met_depth"]) >= min_depth_mm)
+    out["suspicious"] = judged & ~out["ratio"].between(low, high)
+    return out

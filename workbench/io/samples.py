@@ -1,0 +1,322 @@
+"""Readers of precipitation samples and air concentrations.
+
+Both return ``(dataset, ledger)``; see ``docs/data_formats.md`` for the files and
+``docs/data_model.md`` for the datasets.
+"""
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+import numpy as np
+import xarray as xr
+
+from .. import flags as _flags
+from .. import species as _species
+from ..constants import GAS_CONSTANT, STANDARD_PRESSURE, ZERO_CELSIUS
+from ..errors import InputError
+from ..units import convert_plain, to_amount, parse_unit, ureg, Q_
+from .common import check_intervals, check_overlaps, check_sites, join_reasons, unit_error
+from .ledger import Ledger
+from .table import RawTable
+
+PRECIP_REQUIRED = ("site", "start", "end", "gauge_depth")
+PRECIP_OPTIONAL = ("sample_depth", "sample_volume", "collector_area", "pH", "conductivity",
+                   "sampler_id", "flags")
+AIR_REQUIRED = ("site", "start", "end")
+
+
+def _species_columns(tab: RawTable, allowed):
+    """Map species -> column name, refusing two columns for one species."""
+    out = {}
+    for name, h in tab.headers.items():
+        if h.species in allowed:
+            if h.species in out:
+                raise InputError("two columns for one species", file=tab.path,
+                                 line=tab.header_line, column=tab.raw_headers[name],
+                                 expected=f"one column for {h.species} "
+                                 f"(already given as {tab.raw_headers[out[h.species]]!r})")
+            out[h.species] = name
+    return out
+
+
+def _concentrations(tab, cols, kinds_allowed, ledger_parts, n):
+    """Parse species columns into amounts, with censoring. Returns dict of arrays."""
+    data = {}
+    for sp, name in cols.items():
+        h = tab.headers[name]
+        unit = tab.unit_of(name)
+        raw, cens = tab.numbers(name, censoring=True)
+        try:
+            amount, kind = to_amount(raw, unit, sp, h.basis)
+        except ValueError as exc:
+            raise unit_error(tab, name, exc, "a concentration unit such as mg/L, umol/L, "
+                             "ueq/L (precipitation) or ug/m3, ppb (air)") from None
+        if kind not in kinds_allowed:
+            raise unit_error(tab, name, ValueError(f"a {kind.replace('_', ' ')}"),
+                             " or ".join(k.replace("_", " ") for k in kinds_allowed))
+        neg = (~cens) & (amount < 0)
+        value = np.where(cens | neg, np.nan, amount)
+        dl = np.where(cens, amount, np.nan)
+        data[sp] = (value, cens | neg, dl, kind)
+        ledger_parts.append(np.where(cens, f"{sp} below detection", ""))
+        ledger_parts.append(np.where(neg, f"{sp} negative (censored)", ""))
+    return data
+
+
+def read_precipitation(path, catalogue):
+    """Read precipitation samples.
+
+    Parameters
+    ----------
+    path : str or Path
+        CSV file, one row per sample (see docs/data_formats.md).
+    catalogue : SiteCatalogue
+        For the site ids and their UTC offsets.
+
+    Returns
+    -------
+    samples : xarray.Dataset
+        Dim ``sample``; depths [mm], ions [mol m-3] (see docs/data_model.md).
+    ledger : Ledger
+
+    Raises
+    ------
+    InputError
+        Missing column, bad unit, text in a numeric column, negative depth, pH outside
+        0-14, end before start, overlapping samples, unknown site or flag code, empty file.
+    """
+    tab = RawTable.read(path)
+    tab.require(PRECIP_REQUIRED)
+    n = len(tab.frame)
+    sites = check_sites(tab, catalogue)
+    off = catalogue.utc_offsets(sites)
+    start, end = tab.times("start", off), tab.times("end", off)
+    check_intervals(tab, start, end)
+    samplers = tab.text("sampler_id") if tab.has("sampler_id") else np.full(n, "", object)
+    check_overlaps(tab, sites, samplers, start, end)
+    parts = []
+
+    def depth(name):
+        try:
+            v = convert_plain(tab.numbers(name), tab.unit_of(name), "mm")
+        except ValueError as exc:
+            raise unit_error(tab, name, exc, "a depth unit such as mm") from None
+        if (v < 0).any():
+            i = int(np.flatnonzero(v < 0)[0])
+            raise tab.error("negative depth", row=i, column=name, value=tab.frame[name].iloc[i],
+                            expected="a depth >= 0")
+        return v
+
+    gauge = depth("gauge_depth")
+    if tab.has("sample_depth"):
+        sample = depth("sample_depth")
+    elif tab.has("sample_volume") and tab.has("collector_area"):
+        try:
+            vol = convert_plain(tab.numbers("sample_volume"), tab.unit_of("sample_volume"), "m**3")
+        except ValueError as exc:
+            raise unit_error(tab, "sample_volume", exc, "a volume unit such as mL") from None
+        try:
+            area = convert_plain(tab.numbers("collector_area"), tab.unit_of("collector_area"), "m**2")
+        except ValueError as exc:
+            raise unit_error(tab, "collector_area", exc, "an area unit such as cm2") from None
+        for name, v in (("sample_volume", vol), ("collector_area", area)):
+            if (v < 0).any():
+                i = int(np.flatnonzero(v < 0)[0])
+                raise tab.error(f"negative {name.replace('_', ' ')}", row=i, column=name,
+                                value=tab.frame[name].iloc[i], expected="a value >= 0")
+        with np.errstate(divide="ignore", invalid="ignore"):
+            sample = np.where(area > 0, vol / area * 1e3, np.nan)
+    else:
+        sample = np.full(n, np.nan)
+        parts.append(np.full(n, "no sample depth or volume column", object))
+    ph = tab.numbers("pH") if tab.has("pH") else np.full(n, np.nan)
+    bad = (ph < 0) | (ph > 14)
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        raise tab.error("pH outside 0-14", row=i, column="pH", value=tab.frame["pH"].iloc[i],
+                        expected="a pH between 0 and 14")
+    if tab.has("conductivity"):
+        try:
+            cond = convert_plain(tab.numbers("conductivity"), tab.unit_of("conductivity"), "uS/cm")
+        except ValueError as exc:
+            raise unit_error(tab, "conductivity", exc, "a conductivity unit such as uS/cm") from None
+        if (cond < 0).any():
+            i = int(np.flatnonzero(cond < 0)[0])
+            raise tab.error("negative conductivity", row=i, column="conductivity",
+                            value=tab.frame["conductivity"].iloc[i], expected="a value >= 0")
+    else:
+        cond = np.full(n, np.nan)
+    flag_text = tab.text("flags") if tab.has("flags") else np.full(n, "", object)
+    codes = [_flags.split(f) for f in flag_text]  # short strings; one pass
+    for i, cs in enumerate(codes):
+        for c in cs:
+            if c not in _flags.FLAGS:
+                raise tab.error("unknown flag code", row=i, column="flags", value=c,
+                                expected="codes among " + " ".join(_flags.FLAGS))
+    flag_norm = np.array([" ".join(cs) for cs in codes], dtype=object)
+    parts.append(np.where(flag_norm != "", "flags " + flag_norm.astype(str), ""))
+    ion_cols = _species_columns(tab, _species.PRECIP_IONS)
+    conc = _concentrations(tab, ion_cols, ("amount_density",), parts, n)
+    parts.append(np.where(np.isnan(gauge), "gauge depth missing", ""))
+    known = set(PRECIP_REQUIRED + PRECIP_OPTIONAL) | set(ion_cols.values())
+    unknown = tab.unknown_columns(known)
+    has_chem = np.zeros(n, bool)
+    for v, c, _, _ in conc.values():
+        has_chem |= ~np.isnan(v) | c
+    empty = np.isnan(gauge) & np.isnan(sample) & ~has_chem & np.isnan(ph)
+    reasons = join_reasons(parts)
+    reasons = np.where(empty, join_reasons([reasons, np.full(n, "no values in the row", object)]),
+                       reasons)
+    ledger = Ledger.for_rows(tab.path, tab.lines, sites, reasons, empty)
+    if unknown:
+        ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
+    keep = ~empty
+    neg_notes = np.full(n, "", object)
+    for sp, (v, c, dl, _) in conc.items():
+        neg_notes = join_reasons([neg_notes, np.where(c & np.isnan(dl), f"{sp} negative, censored", "")])
+    dvars = {
+        "site": ("sample", sites[keep].astype(str)),
+        "start": ("sample", start[keep]),
+        "end": ("sample", end[keep]),
+        "line": ("sample", tab.lines[keep]),
+        "sampler_id": ("sample", samplers[keep].astype(str)),
+        "flags": ("sample", flag_norm[keep].astype(str)),
+        "notes": ("sample", neg_notes[keep].astype(str)),
+        "gauge_depth": ("sample", gauge[keep], {"units": "mm", "long_name": "gauge precipitation depth"}),
+        "sample_depth": ("sample", sample[keep], {"units": "mm", "long_name": "collected sample depth"}),
+        "pH": ("sample", ph[keep], {"units": "1", "long_name": "pH"}),
+        "conductivity": ("sample", cond[keep], {"units": "uS cm-1", "long_name": "measured conductivity at 25 degC"}),
+    }
+    for sp, (v, c, dl, _) in conc.items():
+        ln = _species.get(sp).long_name
+        dvars[sp] = ("sample", v[keep], {"units": "mol m-3", "long_name": f"{ln} (amount of ion)"})
+        dvars[f"{sp}_censored"] = ("sample", c[keep])
+        dvars[f"{sp}_detection_limit"] = ("sample", dl[keep], {"units": "mol m-3"})
+    ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path)})
+    return ds, ledger
+
+
+_REF = re.compile(r"^\s*(?P<t>[-+\d.eE]+)\s*(?P<tu>degC|K|°C)\s*[,;]\s*(?P<p>[-+\d.eE]+)\s*(?P<pu>Pa|hPa|kPa|atm|mbar)\s*$")
+
+
+def parse_reference_state(text):
+    """Parse a reference state: ``"ambient"`` or ``"20 degC, 1013.25 hPa"``.
+
+    Returns
+    -------
+    None for ambient, else (temperature [K], pressure [Pa]).
+
+    >>> parse_reference_state("ambient") is None
+    True
+    >>> parse_reference_state("0 degC, 1 atm")
+    (273.15, 101325.0)
+    """
+    s = str(text).strip()
+    if s.lower() == "ambient":
+        return None
+    m = _REF.match(s)
+    if not m:
+        raise ValueError(f"unknown reference state {text!r}")
+    t = Q_(float(m.group("t")), "degC" if m.group("tu") in ("degC", "°C") else "K").to("K").magnitude
+    p = Q_(float(m.group("p")), m.group("pu")).to("Pa").magnitude
+    return (round(float(t), 6), round(float(p), 6))
+
+
+def read_air(path, catalogue, reference_state=None):
+    """Read air concentrations, one row per sampling period.
+
+    Parameters
+    ----------
+    path : str or Path
+    catalogue : SiteCatalogue
+    reference_state : str, optional
+        ``"ambient"`` or ``"<T> degC, <p> hPa"``; used when the file states none
+        (a ``# reference_state: ...`` line in the file wins).
+
+    Returns
+    -------
+    concentrations : xarray.Dataset
+        Dim ``period``; amounts [mol m-3] at ambient state, or mixing ratios [mol mol-1].
+    ledger : Ledger
+    """
+    tab = RawTable.read(path)
+    tab.require(AIR_REQUIRED)
+    n = len(tab.frame)
+    sites = check_sites(tab, catalogue)
+    off = catalogue.utc_offsets(sites)
+    start, end = tab.times("start", off), tab.times("end", off)
+    check_intervals(tab, start, end)
+    samplers = tab.text("sampler_id") if tab.has("sampler_id") else np.full(n, "", object)
+    cols = _species_columns(tab, _species.AIR_GASES + _species.AIR_PARTICLES)
+    if not cols:
+        raise InputError("no species columns", file=tab.path, line=tab.header_line,
+                         expected="at least one of " + ", ".join(_species.AIR_GASES + _species.AIR_PARTICLES))
+    parts = []
+    conc = _concentrations(tab, cols, ("amount_density", "mixing_ratio"), parts, n)
+    ref_text = tab.meta.get("reference_state", reference_state)
+    needs_ref = any(k == "amount_density" for *_, k in conc.values())
+    ref = None
+    if needs_ref:
+        if ref_text is None:
+            raise InputError("reference state of mass concentrations not stated", file=tab.path,
+                             line=1, column="reference_state",
+                             expected="a first line '# reference_state: ambient' (or "
+                             "'# reference_state: 20 degC, 1013.25 hPa'), or [air] "
+                             "reference_state in the scenario")
+        try:
+            ref = parse_reference_state(ref_text)
+        except ValueError:
+            raise InputError("unknown reference state", file=tab.path, line=1,
+                             column="reference_state", value=ref_text,
+                             expected="'ambient' or '<T> degC, <p> hPa'") from None
+    method_all = tab.text("method") if tab.has("method") else None
+    methods = {}
+    for sp in cols:
+        for name in (f"method_{sp}", f"{sp}_method"):
+            if tab.has(name):
+                methods[sp] = tab.text(name)
+        if sp not in methods and method_all is not None:
+            methods[sp] = method_all
+    for sp in cols:
+        v, c, _, _ = conc[sp]
+        check_overlaps(tab, sites, samplers, start, end, mask=~np.isnan(v) | c,
+                       what=f"{sp} period")
+    has_val = np.zeros(n, bool)
+    for v, c, _, _ in conc.values():
+        has_val |= ~np.isnan(v) | c
+    reasons = join_reasons(parts)
+    empty = ~has_val
+    reasons = np.where(empty, join_reasons([reasons, np.full(n, "no values in the row", object)]), reasons)
+    ledger = Ledger.for_rows(tab.path, tab.lines, sites, reasons, empty)
+    known = set(AIR_REQUIRED) | {"sampler_id", "method"} | set(cols.values()) | {
+        f"method_{s}" for s in cols} | {f"{s}_method" for s in cols}
+    unknown = tab.unknown_columns(known)
+    if unknown:
+        ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
+    keep = ~empty
+    dvars = {
+        "site": ("period", sites[keep].astype(str)),
+        "start": ("period", start[keep]),
+        "end": ("period", end[keep]),
+        "line": ("period", tab.lines[keep]),
+        "sampler_id": ("period", samplers[keep].astype(str)),
+    }
+    for sp, (v, c, dl, kind) in conc.items():
+        if kind == "amount_density" and ref is not None:
+            # stated at (T_ref, p_ref): the exact mixing ratio is c_ref R T_ref / p_ref
+            factor = GAS_CONSTANT * ref[0] / ref[1]
+            v, dl, kind = v * factor, dl * factor, "mixing_ratio"
+        unit = "mol m-3" if kind == "amount_density" else "mol mol-1"
+        ln = _species.get(sp).long_name
+        attrs = {"units": unit, "quantity": kind, "long_name": ln,
+                 "reference_state": "ambient" if kind == "amount_density" else
+                 ("mixing ratio" if ref is None else f"converted from {ref_text}")}
+        dvars[sp] = ("period", v[keep], attrs)
+        dvars[f"{sp}_censored"] = ("period", c[keep])
+        dvars[f"{sp}_detection_limit"] = ("period", dl[keep], {"units": unit})
+        if sp in methods:
+            dvars[f"{sp}_method"] = ("period", methods[sp][keep].astype(str))
+    ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path),
+                                  "reference_state": str(ref_text) if needs_ref else "none needed"})
+    return ds, ledger

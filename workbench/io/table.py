@@ -1,0 +1,219 @@
+"""Low-level reading of our CSV files: metadata lines, headers with units, typed columns.
+
+Every problem is raised as :class:`~workbench.errors.InputError` naming the file, the
+line, the column, the value and what was expected.  Parsing is vectorized; only the
+first offending row of a column is reported.
+"""
+from __future__ import annotations
+
+import gzip
+import io
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from ..errors import InputError, suggest
+from ..units import Header, parse_header
+
+_OFFSET = re.compile(r"[T ]\d\d.*(?:Z|[+-]\d\d(?::?\d\d)?)$")
+
+
+def _open_text(path: Path) -> str:
+    try:
+        raw = path.read_bytes()
+    except FileNotFoundError:
+        raise InputError("file not found", file=path, expected="an existing file") from None
+    except IsADirectoryError:
+        raise InputError("is a directory", file=path, expected="a file") from None
+    if path.suffix == ".gz":
+        raw = gzip.decompress(raw)
+    try:
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise InputError("file is not UTF-8 text", file=path,
+                         value=f"byte {exc.start}", expected="a UTF-8 CSV file") from None
+
+
+@dataclass
+class RawTable:
+    """A CSV file read as text, with its metadata and parsed headers.
+
+    Attributes
+    ----------
+    path : Path
+    meta : dict
+        ``# key: value`` lines at the top of the file.
+    frame : DataFrame
+        All cells as stripped strings, columns named by their header *name* (without
+        the unit); index irrelevant.
+    lines : ndarray of int
+        1-based line number of each row in the file.
+    headers : dict
+        name -> :class:`~workbench.units.Header`.
+    """
+
+    path: Path
+    meta: dict
+    frame: pd.DataFrame
+    lines: np.ndarray
+    headers: dict
+    raw_headers: dict = field(default_factory=dict)
+
+    # ------------------------------------------------------------------ reading
+    @classmethod
+    def read(cls, path) -> "RawTable":
+        path = Path(path)
+        text = _open_text(path)
+        all_lines = text.splitlines()
+        meta, n_meta = {}, 0
+        for ln in all_lines:
+            s = ln.strip()
+            if s.startswith("#"):
+                n_meta += 1
+                body = s.lstrip("#").strip()
+                if ":" in body:
+                    key, val = body.split(":", 1)
+                    meta[key.strip().lower()] = val.strip()
+            elif s == "" and n_meta == len(meta) and n_meta:
+                n_meta += 1
+            else:
+                break
+        rest = all_lines[n_meta:]
+        if not any(ln.strip() for ln in rest):
+            raise InputError("empty file", file=path, expected="a header line and data rows")
+        try:
+            df = pd.read_csv(io.StringIO("\n".join(rest)), dtype=str, keep_default_na=False,
+                             skip_blank_lines=False, skipinitialspace=True,
+                             index_col=False)
+        except pd.errors.ParserError as exc:
+            m = re.search(r"line (\d+)", str(exc))
+            line = int(m.group(1)) + n_meta if m else None
+            raise InputError("malformed CSV row (wrong number of fields)", file=path,
+                             line=line, expected="as many fields as header columns") from None
+        lines = np.arange(len(df)) + n_meta + 2
+        blank = (df == "").all(axis=1).to_numpy()
+        df, lines = df.loc[~blank].reset_index(drop=True), lines[~blank]
+        if df.empty:
+            raise InputError("no data rows", file=path, line=n_meta + 1,
+                             expected="at least one data row below the header")
+        headers, raw, names = {}, {}, []
+        for col in df.columns:
+            h = parse_header(col)
+            if h.name in headers:
+                raise InputError("duplicate column", file=path, line=n_meta + 1,
+                                 column=col, expected="each column once")
+            headers[h.name] = h
+            raw[h.name] = col
+            names.append(h.name)
+        df.columns = names
+        df = df.apply(lambda c: c.str.strip())
+        return cls(path, meta, df, lines, headers, raw)
+
+    # ------------------------------------------------------------------ helpers
+    def error(self, problem, *, row=None, column=None, value=None, expected=None):
+        """An InputError located at data row index `row` (0-based) and `column`."""
+        line = int(self.lines[row]) if row is not None else None
+        col = self.raw_headers.get(column, column) if column is not None else None
+        return InputError(problem, file=self.path, line=line, column=col, value=value,
+                          expected=expected)
+
+    @property
+    def header_line(self) -> int:
+        return int(self.lines[0]) - 1 if len(self.lines) else 1
+
+    def require(self, names, any_of=()):
+        """Raise for the first required column that is missing."""
+        for n in names:
+            if n not in self.headers:
+                raise InputError("missing required column", file=self.path,
+                                 line=self.header_line, column=n,
+                                 value=None, expected=f"a column named {n!r}"
+                                 + suggest(n, self.headers))
+        for group in any_of:
+            if not any(g in self.headers for g in group):
+                raise InputError("missing required column", file=self.path,
+                                 line=self.header_line, column=" or ".join(group),
+                                 expected="one of " + ", ".join(repr(g) for g in group))
+
+    def has(self, name) -> bool:
+        return name in self.headers
+
+    def unit_of(self, name, required=True, default=None) -> str | None:
+        h: Header = self.headers[name]
+        if h.unit is None or h.unit == "":
+            if required and default is None:
+                raise InputError("column has no unit", file=self.path, line=self.header_line,
+                                 column=self.raw_headers[name],
+                                 expected=f"a unit in square brackets, e.g. '{name} [...]'")
+            return default
+        return h.unit
+
+    def text(self, name) -> np.ndarray:
+        return self.frame[name].to_numpy(dtype=object).astype(str)
+
+    def numbers(self, name, *, censoring=False):
+        """Parse a numeric column.
+
+        Returns
+        -------
+        values : ndarray of float
+            NaN for empty cells; for ``<x`` cells the limit x.
+        censored : ndarray of bool
+            Only when `censoring` is True: cells written ``<x``.
+        """
+        s = self.frame[name]
+        cens = s.str.startswith("<").to_numpy()
+        body = s.str.lstrip("<").str.strip() if censoring else s
+        if not censoring and cens.any():
+            i = int(np.flatnonzero(cens)[0])
+            raise self.error("censored value not allowed here", row=i, column=name,
+                             value=s.iloc[i], expected="a number")
+        vals = pd.to_numeric(body.replace({"": np.nan, "NA": np.nan, "NaN": np.nan,
+                                            "nan": np.nan}), errors="coerce")
+        bad = vals.isna().to_numpy() & ~body.isin(["", "NA", "NaN", "nan"]).to_numpy()
+        if bad.any():
+            i = int(np.flatnonzero(bad)[0])
+            raise self.error("text in a numeric column", row=i, column=name,
+                             value=s.iloc[i], expected="a number (or empty for missing)"
+                             + (", or '<limit' below detection" if censoring else ""))
+        v = vals.to_numpy(dtype=float)
+        if censoring:
+            return v, cens
+        return v
+
+    def times(self, name, utc_offset_h) -> np.ndarray:
+        """Parse ISO 8601 timestamps to naive UTC datetime64[ns].
+
+        A naive timestamp takes the row's `utc_offset_h` (array, hours east of UTC).
+        """
+        s = self.frame[name]
+        if (s == "").any():
+            i = int(np.flatnonzero((s == "").to_numpy())[0])
+            raise self.error("missing timestamp", row=i, column=name, value="",
+                             expected="an ISO 8601 timestamp such as 2020-01-07T09:00")
+        aware = s.str.contains(_OFFSET).to_numpy()
+        out = np.empty(len(s), dtype="datetime64[ns]")
+        if aware.any():
+            t = pd.to_datetime(s[aware], format="ISO8601", utc=True, errors="coerce")
+            self._check_times(s[aware], t, name)
+            out[aware] = t.dt.tz_localize(None).to_numpy()
+        if (~aware).any():
+            t = pd.to_datetime(s[~aware], format="ISO8601", errors="coerce")
+            self._check_times(s[~aware], t, name)
+            off = np.asarray(utc_offset_h, dtype=float)[~aware]
+            out[~aware] = (t.to_numpy() - (off * 3600e9).astype("timedelta64[ns]"))
+        return out
+
+    def _check_times(self, s, t, name):
+        bad = t.isna().to_numpy()
+        if bad.any():
+            idx = s.index[np.flatnonzero(bad)[0]]
+            raise self.error("not an ISO 8601 timestamp", row=int(idx), column=name,
+                             value=s.loc[idx], expected="a timestamp such as 2020-01-07T09:00 "
+                             "or 2020-01-07T09:00+01:00")
+
+    def unknown_columns(self, known) -> list[str]:
+        return [self.raw_headers[n] for n in self.headers if n not in known]
