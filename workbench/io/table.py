@@ -6,9 +6,11 @@ first offending row of a column is reported.
 """
 from __future__ import annotations
 
+import csv
 import gzip
 import io
 import re
+import warnings
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -84,15 +86,19 @@ class RawTable:
         rest = all_lines[n_meta:]
         if not any(ln.strip() for ln in rest):
             raise InputError("empty file", file=path, expected="a header line and data rows")
+        body = "\n".join(rest)
         try:
-            df = pd.read_csv(io.StringIO("\n".join(rest)), dtype=str, keep_default_na=False,
-                             skip_blank_lines=False, skipinitialspace=True,
-                             index_col=False)
-        except pd.errors.ParserError as exc:
-            m = re.search(r"line (\d+)", str(exc))
-            line = int(m.group(1)) + n_meta if m else None
+            with warnings.catch_warnings():
+                warnings.simplefilter("error", pd.errors.ParserWarning)
+                df = pd.read_csv(io.StringIO(body), dtype=str, keep_default_na=False,
+                                 skip_blank_lines=False, skipinitialspace=True,
+                                 index_col=False)
+        except (pd.errors.ParserError, pd.errors.ParserWarning):
+            rows = csv.reader(io.StringIO(body))
+            n_head = len(next(rows))
+            line = next((k + 2 + n_meta for k, r in enumerate(rows) if r and len(r) != n_head), None)
             raise InputError("malformed CSV row (wrong number of fields)", file=path,
-                             line=line, expected="as many fields as header columns") from None
+                             line=line, expected=f"{n_head} fields as in the header") from None
         lines = np.arange(len(df)) + n_meta + 2
         blank = (df == "").all(axis=1).to_numpy()
         df, lines = df.loc[~blank].reset_index(drop=True), lines[~blank]
