@@ -1,0 +1,125 @@
+"""Dry flux integration over sampling periods, checked by arithmetic."""
+import numpy as np
+import pandas as pd
+import pytest
+import xarray as xr
+
+from workbench.dryflux import DryFluxOptions, fill_diurnal, period_deposition, to_periods
+from workbench.periods import make_periods
+
+
+def _vd(values, start="2021-01-01T01:00", sites=("a",), receptors=("grass",)):
+    values = np.asarray(values, float)
+    t = pd.date_range(start, periods=values.shape[-1], freq="h").values
+    data = np.broadcast_to(values, (len(sites), len(receptors), values.shape[-1])).copy()
+    return xr.DataArray(data, dims=("site", "receptor", "time"),
+                        coords={"site": list(sites), "receptor": list(receptors), "time": t})
+
+
+def _air(rows, species="SO2", quantity="amount_density"):
+    df = pd.DataFrame(rows, columns=["site", "start", "end", "value"])
+    n = len(df)
+    ds = xr.Dataset({
+        "site": ("period", df["site"].values.astype(str)),
+        "start": ("period", pd.to_datetime(df["start"]).values),
+        "end": ("period", pd.to_datetime(df["end"]).values),
+        "line": ("period", np.arange(n) + 2),
+        "sampler_id": ("period", np.full(n, "s1")),
+        species: ("period", df["value"].values.astype(float), {"quantity": quantity}),
+        f"{species}_censored": ("period", np.zeros(n, bool)),
+        f"{species}_detection_limit": ("period", np.full(n, np.nan)),
+    })
+    return ds
+
+
+def test_constant_vd_weekly_by_arithmetic():
+    """C = 1e-8 mol/m3 for a week at Vd = 0.005 m/s: D = C Vd 7 x 86400 s (arithmetic)."""
+    hours = 24 * 14
+    vd = _vd(np.full(hours, 0.005))
+    air = _air([("a", "2021-01-01T00:00", "2021-01-08T00:00", 1e-8),
+                ("a", "2021-01-08T00:00", "2021-01-15T00:00", 2e-8)])
+    rows, cs = period_deposition(air, "SO2", vd, None)
+    np.testing.assert_allclose(rows["deposition"].values[:, 0],
+                               [1e-8 * 0.005 * 7 * 86400, 2e-8 * 0.005 * 7 * 86400])
+    np.testing.assert_allclose(rows["mean_vd"].values[:, 0], 0.005)
+
+
+def test_mean_of_conductances_not_of_resistances():
+    """The period Vd is the mean of hourly Vd (0.01 and 0.001 -> 0.0055), not
+    1/mean(1/Vd) (-> 0.00182): conductances average, resistances do not (common practice)."""
+    vd = _vd(np.tile([0.01, 0.001], 12 * 7))
+    air = _air([("a", "2021-01-01T00:00", "2021-01-08T00:00", 1.0)])
+    rows, _ = period_deposition(air, "SO2", vd, None)
+    assert rows["mean_vd"].values[0, 0] == pytest.approx(0.0055)
+
+
+def test_missing_week_scales_by_coverage():
+    """Three of four weeks measured in a 28-day period: D = (sum of three) x 4/3, coverage 0.75."""
+    vd = _vd(np.full(24 * 28, 0.002), start="2021-02-01T01:00")
+    air = _air([("a", "2021-02-01", "2021-02-08", 1e-8), ("a", "2021-02-08", "2021-02-15", 1e-8),
+                ("a", "2021-02-22", "2021-03-01", 4e-8)])
+    rows, cs = period_deposition(air, "SO2", vd, None)
+    periods = make_periods("2021-02-01", "2021-03-01", "month")
+    out = to_periods(rows, cs, ["a"], periods, vd["time"].values)
+    week = 0.002 * 7 * 86400
+    expected = (1e-8 + 1e-8 + 4e-8) * week * 4 / 3
+    assert out["deposition"].values[0, 0, 0] == pytest.approx(expected)
+    assert out["coverage"].values[0, 0] == pytest.approx(0.75)
+
+
+def test_straddling_period_split_by_vd():
+    """A period across a month boundary is split by the sum of hourly Vd in each part:
+    Vd 0.004 in the first 24 h and 0.001 in the next 48 h -> shares 1/3 and 2/3... by Vd:
+    24*0.004 = 0.096 vs 48*0.001 = 0.048 -> 2/3 and 1/3 (arithmetic)."""
+    vd = _vd(np.r_[np.full(24, 0.004), np.full(48, 0.001)], start="2021-01-31T01:00")
+    air = _air([("a", "2021-01-31T00:00", "2021-02-03T00:00", 1e-8)])
+    rows, cs = period_deposition(air, "SO2", vd, None)
+    periods = make_periods("2021-01-01", "2021-03-01", "month")
+    out = to_periods(rows, cs, ["a"], periods, vd["time"].values)
+    total = rows["deposition"].values[0, 0]
+    jan_cov, feb_cov = out["covered_hours"].values[0]
+    assert (jan_cov, feb_cov) == (24, 48)
+    # scaled to whole months: covered share times hours ratio
+    assert out["deposition"].values[0, 0, 0] == pytest.approx(total * 2 / 3 * 744 / 24)
+    assert out["deposition"].values[0, 0, 1] == pytest.approx(total * 1 / 3 * 672 / 48)
+
+
+def test_mixing_ratio_uses_hourly_air_density():
+    """1 ppb at T and p: D = chi p/(R T) Vd dt (ideal gas, CODATA R via scipy)."""
+    from scipy.constants import R
+    hours = 24
+    vd = _vd(np.full(hours, 0.003))
+    t = vd["time"].values
+    temp = np.linspace(270, 290, hours)
+    met = xr.Dataset({"temperature": (("site", "time"), temp[None]),
+                      "pressure": (("site", "time"), np.full((1, hours), 95000.0))},
+                     coords={"site": ["a"], "time": t})
+    air = _air([("a", "2021-01-01T00:00", "2021-01-02T00:00", 1e-9)], quantity="mixing_ratio")
+    rows, _ = period_deposition(air, "SO2", vd, met)
+    expected = np.sum(1e-9 * 95000.0 / (R * temp) * 0.003 * 3600)
+    assert rows["deposition"].values[0, 0] == pytest.approx(expected, rel=1e-8)
+
+
+def test_fill_diurnal_same_month():
+    """A missing hour takes the mean of the same hour of day in the same month."""
+    base = np.tile(np.r_[np.full(12, 0.001), np.full(12, 0.006)], 31)
+    vd = _vd(base, start="2021-01-01T01:00")
+    holed = vd.copy()
+    holed[0, 0, 24 * 10 + 15] = np.nan
+    filled, was = fill_diurnal(holed)
+    assert bool(was[0, 0, 24 * 10 + 15]) and int(was.sum()) == 1
+    assert filled[0, 0, 24 * 10 + 15] == pytest.approx(base[24 * 10 + 15])
+
+
+def test_diurnal_profile_sensitivity():
+    """With C higher by day when Vd is higher by day, the flux rises (covariance term)."""
+    vd = _vd(np.tile(np.r_[np.full(12, 0.001), np.full(12, 0.009)], 7))
+    air = _air([("a", "2021-01-01T00:00", "2021-01-08T00:00", 1e-8)])
+    base, _ = period_deposition(air, "SO2", vd, None)
+    prof = np.r_[np.full(12, 0.5), np.full(12, 1.5)]  # hours 0-11 low, 12-23 high (UTC)
+    opt = DryFluxOptions(diurnal_profile={"SO2": list(prof)})
+    alt, _ = period_deposition(air, "SO2", vd, None, opt)
+    # hour-of-day of each hour's midpoint: first 12 hours are 00..11 -> Vd 0.001 x 0.5
+    expected = 1e-8 * (12 * 0.001 * 0.5 + 12 * 0.009 * 1.5) / 24 * 7 * 86400
+    assert alt["deposition"].values[0, 0] == pytest.approx(expected)
+    assert alt["deposition"].values[0, 0] > base["deposition"].values[0, 0]

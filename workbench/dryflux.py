@@ -1,0 +1,332 @@
+"""Dry deposition over air-sampling periods: concentration x hourly deposition velocity.
+
+The inferential flux of a species over one air-sampling period is
+
+.. math:: D = C \\, \\overline{V_d} \\, \\Delta t
+
+with :math:`\\overline{V_d}` the arithmetic mean of the hourly deposition velocities
+(conductances, never the inverse of a mean resistance) over the hours of the period.
+A concentration given as a mixing ratio :math:`\\chi` becomes a flux hour by hour with
+that hour's molar density of air, :math:`D = \\chi\\,\\overline{n_{air} V_d}\\,\\Delta t`.
+Hourly concentrations are the same formula with one hour per period.
+
+Hours without a valid Vd are filled from the site's mean diurnal cycle of Vd for the
+same month (of the same year when that slot has enough hours, else of all years); each
+filled hour is counted.  Everything here is vectorized over sites, receptors, periods
+and hours through cumulative sums along time: no Python loop over hours or periods.
+
+Units: concentrations [mol m-3] or [mol mol-1]; Vd [m s-1]; deposition [mol m-2].
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from .units import molar_density_air
+
+HOUR_S = 3600.0
+_HALF_HOUR = np.timedelta64(30, "m")
+
+#: Fewest valid hours in a (year, month, hour-of-day) slot for its own mean to fill a gap
+#: (common practice: about a week of the month; else the all-years slot is used).
+MIN_SLOT_HOURS = 7
+
+
+@dataclass(frozen=True)
+class DryFluxOptions:
+    """Options of the dry-flux integration.
+
+    Attributes
+    ----------
+    censored : {"half", "limit", "zero"}
+        Value used for a concentration below detection: half the limit (default,
+        common practice), the limit, or zero.
+    min_slot_hours : int
+        See :data:`MIN_SLOT_HOURS`.
+    diurnal_profile : dict
+        species -> 24 relative concentrations by hour of local day (normalized here to
+        a mean of 1); a sensitivity for the covariance of C and Vd that a period-mean
+        concentration leaves out.  Empty by default (constant within a period).
+    preferred_method : dict
+        species -> method name to use when several samplers measure one species at a
+        site; by default the sampler covering the most hours is used.
+    """
+
+    censored: str = "half"
+    min_slot_hours: int = MIN_SLOT_HOURS
+    diurnal_profile: dict = field(default_factory=dict)
+    preferred_method: dict = field(default_factory=dict)
+
+
+def fill_diurnal(vd: xr.DataArray, min_slot_hours: int = MIN_SLOT_HOURS):
+    """Fill missing hourly Vd from the mean diurnal cycle of the same month.
+
+    Parameters
+    ----------
+    vd : xarray.DataArray
+        Deposition velocity with a ``time`` dimension (end-of-hour labels) and any
+        other dimensions (site, receptor). [m s-1]
+    min_slot_hours : int
+        Fewest valid hours of a (year, month, hour) slot for it to be used.
+
+    Returns
+    -------
+    filled : xarray.DataArray
+        Same shape; NaN only where neither slot has data. [m s-1]
+    was_filled : xarray.DataArray of bool
+        True where a value was filled.
+    """
+    other = [d for d in vd.dims if d != "time"]
+    v = vd.transpose(*other, "time")
+    arr = np.asarray(v.values, dtype=float)
+    shape = arr.shape
+    rows = arr.reshape(-1, shape[-1])
+    mid = pd.DatetimeIndex(v["time"].values - _HALF_HOUR)
+    years = mid.year.to_numpy()
+    y0 = years.min()
+    n_years = years.max() - y0 + 1
+    month_hour = (mid.month.to_numpy() - 1) * 24 + mid.hour.to_numpy()
+    slot_y = (years - y0) * 288 + month_hour
+    n_rows = rows.shape[0]
+    valid = np.isfinite(rows)
+    r_idx = np.repeat(np.arange(n_rows), rows.shape[1])
+
+    def slot_mean(slot, n_slots):
+        idx = r_idx * n_slots + np.tile(slot, n_rows)
+        w = np.where(valid, rows, 0.0).ravel()
+        s = np.bincount(idx, weights=w, minlength=n_rows * n_slots).reshape(n_rows, n_slots)
+        c = np.bincount(idx, weights=valid.ravel().astype(float),
+                        minlength=n_rows * n_slots).reshape(n_rows, n_slots)
+        return s, c
+
+    s_y, c_y = slot_mean(slot_y, n_years * 288)
+    s_a, c_a = slot_mean(month_hour, 288)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mean_y = np.where(c_y >= min_slot_hours, s_y / c_y, np.nan)
+        mean_a = np.where(c_a > 0, s_a / c_a, np.nan)
+    fill_y = mean_y[:, slot_y]
+    fill_a = mean_a[:, month_hour]
+    fill = np.where(np.isfinite(fill_y), fill_y, fill_a)
+    out = np.where(valid, rows, fill)
+    was = ~valid & np.isfinite(out)
+    filled = v.copy(data=out.reshape(shape)).transpose(*vd.dims)
+    was_filled = v.copy(data=was.reshape(shape)).transpose(*vd.dims)
+    filled.attrs = dict(vd.attrs)
+    return filled, was_filled
+
+
+def _cumulative(x):
+    """Cumulative sum along the last axis with a leading zero (NaN counted as 0)."""
+    z = np.zeros(x.shape[:-1] + (1,))
+    return np.concatenate([z, np.cumsum(np.where(np.isfinite(x), x, 0.0), axis=-1)], axis=-1)
+
+
+def _hour_bounds(times, starts, ends):
+    """Index range [a, b) of the hours whose midpoint lies in [start, end)."""
+    mid = times - _HALF_HOUR
+    return np.searchsorted(mid, starts, side="left"), np.searchsorted(mid, ends, side="left")
+
+
+def _censored_values(air, species, how):
+    v = air[species].values.astype(float)
+    c = air[f"{species}_censored"].values if f"{species}_censored" in air else np.zeros(len(v), bool)
+    dl = air[f"{species}_detection_limit"].values if f"{species}_detection_limit" in air \
+        else np.full(len(v), np.nan)
+    factor = {"half": 0.5, "limit": 1.0, "zero": 0.0}[how]
+    sub = np.where(np.isfinite(dl), dl * factor, 0.0)
+    return np.where(c, sub, v), c
+
+
+def select_samplers(air: xr.Dataset, species: str, preferred_method=None):
+    """Rows of `air` used for a species: one sampler per site.
+
+    Returns
+    -------
+    used : ndarray of bool
+        Per row of `air`.
+    notes : list of str
+        Which duplicate samplers were left out.
+    """
+    v = air[species].values
+    has = np.isfinite(v) | (air[f"{species}_censored"].values if f"{species}_censored" in air
+                            else False)
+    sites = air["site"].values.astype(str)
+    samplers = air["sampler_id"].values.astype(str)
+    method = air[f"{species}_method"].values.astype(str) if f"{species}_method" in air \
+        else np.full(len(v), "", object)
+    hours = (air["end"].values - air["start"].values) / np.timedelta64(1, "h")
+    df = pd.DataFrame({"site": sites, "sampler": samplers, "method": method,
+                       "hours": np.where(has, hours, 0.0), "has": has})
+    df = df[df["has"]]
+    used = has.copy()
+    notes = []
+    for site, g in df.groupby("site"):
+        if g["sampler"].nunique() <= 1:
+            continue
+        cover = g.groupby("sampler")["hours"].sum()
+        choice = cover.idxmax()
+        if preferred_method and preferred_method.get(species):
+            pref = g[g["method"] == preferred_method[species]]["sampler"].unique()
+            if len(pref):
+                choice = pref[0]
+        drop = (sites == site) & (samplers != choice)
+        used &= ~drop
+        notes.append(f"{species} at {site}: sampler {choice!r} used; "
+                     f"{', '.join(sorted(set(cover.index) - {choice}))} left out ({int(drop.sum())} rows)")
+    return used, notes
+
+
+def period_deposition(air: xr.Dataset, species: str, vd: xr.DataArray, met: xr.Dataset | None,
+                      options: DryFluxOptions = DryFluxOptions()):
+    """Deposition of one species over each of its air-sampling periods, per receptor.
+
+    Parameters
+    ----------
+    air : xarray.Dataset
+        Air concentrations (dim ``period``; see docs/data_model.md).
+    species : str
+        Species name (a variable of `air`).
+    vd : xarray.DataArray
+        Hourly deposition velocity (site, receptor, time), already gap-filled. [m s-1]
+    met : xarray.Dataset or None
+        Hourly temperature [K] and pressure [Pa], needed for mixing ratios.
+    options : DryFluxOptions
+
+    Returns
+    -------
+    xarray.Dataset
+        Dims (``row``, ``receptor``) over the rows of `air` used for the species:
+        ``deposition`` [mol m-2], ``mean_vd`` [m s-1] (effective, concentration-
+        weighted when a profile is set), ``vd_hours`` (hours with a valid Vd),
+        ``hours`` (length), and the row's ``site``, ``start``, ``end``, ``line``,
+        ``censored``.
+    """
+    used, notes = select_samplers(air, species, options.preferred_method)
+    rows = np.flatnonzero(used)
+    conc, cens = _censored_values(air, species, options.censored)
+    quantity = air[species].attrs.get("quantity", "amount_density")
+    sites_vd = [str(s) for s in vd["site"].values]
+    site_of = air["site"].values.astype(str)[rows]
+    known = np.isin(site_of, sites_vd)
+    rows, site_of = rows[known], site_of[known]
+    times = vd["time"].values
+    v = vd.transpose("site", "receptor", "time").values
+    weight = np.ones(v.shape[-1])
+    if species in options.diurnal_profile:
+        prof = np.asarray(options.diurnal_profile[species], float)
+        prof = prof / prof.mean()
+        hour = pd.DatetimeIndex(times - _HALF_HOUR).hour.to_numpy()
+        weight = prof[hour]  # UTC hour; the caller passes a profile in UTC hours
+    eff = v * weight
+    if quantity == "mixing_ratio":
+        if met is None:
+            raise ValueError(f"{species} is a mixing ratio: hourly temperature and pressure are needed")
+        m = met[["temperature", "pressure"]].reindex(site=sites_vd, time=times)
+        n_air = molar_density_air(m["temperature"].values, m["pressure"].values)
+        eff = eff * n_air[:, None, :]
+    cs = _cumulative(eff)
+    cn = _cumulative(np.isfinite(eff).astype(float))
+    a, b = _hour_bounds(times, air["start"].values[rows], air["end"].values[rows])
+    si = pd.Index(sites_vd).get_indexer(site_of)
+    total = cs[si, :, b] - cs[si, :, a]        # (row, receptor)
+    n_valid = cn[si, :, b] - cn[si, :, a]
+    hours = (air["end"].values[rows] - air["start"].values[rows]) / np.timedelta64(1, "h")
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mean_eff = np.where(n_valid > 0, total / n_valid, np.nan)
+    dep = conc[rows][:, None] * mean_eff * hours[:, None] * HOUR_S
+    ds = xr.Dataset(
+        {
+            "deposition": (("row", "receptor"), dep, {"units": "mol m-2",
+                           "long_name": f"dry deposition of {species} over the sampling period"}),
+            "mean_vd": (("row", "receptor"), mean_eff if quantity != "mixing_ratio" else np.nan * mean_eff,
+                        {"units": "m s-1", "long_name": "mean deposition velocity over the period"}),
+            "vd_hours": (("row", "receptor"), n_valid),
+            "hours": ("row", hours, {"units": "h"}),
+            "site": ("row", site_of),
+            "start": ("row", air["start"].values[rows]),
+            "end": ("row", air["end"].values[rows]),
+            "line": ("row", air["line"].values[rows]),
+            "censored": ("row", cens[rows]),
+            "hour_start": ("row", a),
+            "hour_end": ("row", b),
+        },
+        coords={"receptor": vd["receptor"].values},
+        attrs={"species": species, "quantity": quantity, "notes": "; ".join(notes)},
+    )
+    # cumulative sums of the (unweighted) Vd for splitting across reporting periods
+    ds.attrs["_split_cs"] = None
+    return ds, cs
+
+
+def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
+    """Share period depositions among reporting periods and scale to full coverage.
+
+    An air period that straddles a boundary is split by the sum of hourly (effective)
+    Vd in each part.  A reporting period's deposition is the mean flux rate over its
+    covered hours times its length:
+
+    .. math:: D_P = \\frac{H_P}{H_{cov}} \\sum_a D_a \\frac{\\sum_{h \\in a \\cap P} V_d}
+              {\\sum_{h \\in a} V_d}
+
+    Parameters
+    ----------
+    rows : xarray.Dataset
+        Output of :func:`period_deposition`.
+    cs : ndarray
+        Cumulative effective Vd (site, receptor, time + 1) from the same call.
+    sites : list of str
+        Site order of `cs`.
+    periods : pandas.DataFrame
+        Reporting periods (``workbench.periods.make_periods``).
+    times : ndarray of datetime64
+        Hour axis of `cs`.
+
+    Returns
+    -------
+    xarray.Dataset
+        Dims (site, receptor, period): ``deposition`` [mol m-2] scaled to the whole
+        period, ``coverage`` [1] (share of the period's hours with a concentration),
+        ``vd_hours`` (hours with a valid Vd in the covered part), ``covered_hours``.
+    """
+    n_s, n_r, n_p = len(sites), rows.sizes["receptor"], len(periods)
+    dep_out = np.zeros((n_s, n_r, n_p))
+    cov_hours = np.zeros((n_s, n_p))
+    pa, pb = _hour_bounds(times, periods["start"].values, periods["end"].values)
+    if rows.sizes["row"]:
+        si = pd.Index(sites).get_indexer(rows["site"].values.astype(str))
+        a, b = rows["hour_start"].values, rows["hour_end"].values
+        lo = np.maximum(a[:, None], pa[None, :])          # (row, period)
+        hi = np.minimum(b[:, None], pb[None, :])
+        ov = np.clip(hi - lo, 0, None)
+        lo_c, hi_c = np.minimum(lo, hi), hi
+        part = cs[si[:, None], :, hi_c] - cs[si[:, None], :, lo_c]   # (row, period, receptor)
+        whole = (cs[si, :, b] - cs[si, :, a])[:, None, :]
+        with np.errstate(invalid="ignore", divide="ignore"):
+            share = np.where(whole > 0, part / whole, ov[:, :, None] / np.maximum(b - a, 1)[:, None, None])
+        dep = rows["deposition"].values[:, None, :] * share          # (row, period, receptor)
+        dep = np.where(np.isfinite(dep), dep, 0.0)
+        # sum rows into (site, receptor, period)
+        for_sites = np.zeros((n_s, n_p, n_r))
+        np.add.at(for_sites, si, dep)
+        dep_out = for_sites.transpose(0, 2, 1)
+        np.add.at(cov_hours, si, ov.astype(float))
+    period_hours = periods["hours"].to_numpy(dtype=float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        scale = np.where(cov_hours > 0, period_hours[None, :] / cov_hours, np.nan)
+    deposition = dep_out * scale[:, None, :]
+    coverage = cov_hours / np.maximum(period_hours[None, :], 1)
+    return xr.Dataset(
+        {
+            "deposition": (("site", "receptor", "period"), deposition,
+                           {"units": "mol m-2", "long_name": "dry deposition over the period, "
+                            "scaled from the covered hours"}),
+            "coverage": (("site", "period"), np.clip(coverage, 0, 1),
+                         {"units": "1", "long_name": "share of the period's hours with a concentration"}),
+            "covered_hours": (("site", "period"), cov_hours, {"units": "h"}),
+        },
+        coords={"site": list(sites), "receptor": rows["receptor"].values,
+                "period": periods["label"].values},
+    )
