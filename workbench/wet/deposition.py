@@ -1,0 +1,408 @@
+"""Wet deposition per site and period: PWMs, completeness, fluxes, sea-salt correction.
+
+:func:`wet_deposition` turns screened samples (:func:`workbench.wet.screen`) into a
+Dataset with dims (``site``, ``period``); :func:`to_table` flattens it for export.
+The rules and their sources are in ``docs/methods_wet.md``.
+"""
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from .. import periods as _periods
+from ..species import PRECIP_IONS
+from ..units import deposition_in, ureg
+from . import seasalt
+from .hourly import site_positions, window_sums
+from .options import WetOptions
+from .pwm import CoverageProfile, group_sums
+from .qa import UMOL_L_PER_MOL_M3, pH_from_hydrogen
+from .screening import STATUSES
+
+#: m per mm (= 1e-3), from the unit registry: mol m-3 x mm -> mol m-2.
+M_PER_MM = ureg.Quantity(1.0, "mm").to("m").magnitude
+#: Ions reported also in kg of their element per hectare (budget ions).
+ELEMENT_IONS = ("SO4", "NO3", "NH4")
+#: Period statuses.
+PERIOD_STATUSES = ("complete", "flagged", "filled", "missing")
+_UNIT_KG = {"SO4": "kg S ha-1", "NO3": "kg N ha-1", "NH4": "kg N ha-1"}
+
+
+def _periods_table(periods, screened, opt):
+    if isinstance(periods, str):
+        start = screened["start"].values.min()
+        end = screened["end"].values.max()
+        return _periods.make_periods(start, end, periods, hydro_start_month=opt.hydro_start_month)
+    return periods.reset_index(drop=True)
+
+
+def _met_fractions(table, screened, met):
+    """Share of each sample's hourly met precipitation in each of its periods (NaN if none)."""
+    i = table["interval"].values
+    site = screened["site"].values.astype(str)[i]
+    pos = site_positions(site, met["site"].values)
+    sub, n_sub, h_sub = window_sums(met["precipitation"], pos, table["start"].values,
+                                    table["end"].values)
+    tot, n_tot, h_tot = window_sums(met["precipitation"], pos, screened["start"].values[i],
+                                    screened["end"].values[i])
+    ok = (n_tot == h_tot) & (h_tot > 0) & (tot > 0) & (n_sub == h_sub)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(ok, sub / np.where(ok, tot, 1.0), np.nan)
+
+
+def _split(screened, ptable, opt, met):
+    """Long table of (sample, period) rows with the precipitation share of each."""
+    table = _periods.split_intervals(screened["start"].values, screened["end"].values, ptable)
+    frac = table["fraction"].values
+    method = np.full(len(table), "hours", dtype=object)
+    if opt.straddle == "met" and met is not None and "precipitation" in met:
+        fm = _met_fractions(table, screened, met)
+        method = np.where(np.isfinite(fm), "met", method)
+        frac = np.where(np.isfinite(fm), fm, frac)
+    table["share"] = frac
+    table["share_method"] = method
+    return table
+
+
+def _join(acc, mask, label):
+    add = np.where(acc == "", label, acc + "; " + label)
+    return np.where(mask, add, acc).astype(object)
+
+
+def _species_list(screened):
+    return [i for i in PRECIP_IONS if i in screened] + ["H"]
+
+
+def _weighted(table, screened, weight_all, used, flat, n_flat, species):
+    """Numerators and denominators of the PWM of each species per flat (site, period)."""
+    num, den = {}, {}
+    for sp in species:
+        c = np.asarray(screened[sp].values, dtype=float)[table["interval"].values]
+        ok = used & np.isfinite(c)
+        w = np.where(ok, weight_all, 0.0)
+        num[sp] = group_sums(w * np.where(ok, c, 0.0), flat, n_flat)
+        den[sp] = group_sums(w, flat, n_flat)
+    return num, den
+
+
+def _climatology(screened, opt, met, site_idx, n_site, species, mult):
+    """Multi-year PWM per site and season (and over the whole record) [mol m-3]."""
+    t0, t1 = screened["start"].values.min(), screened["end"].values.max()
+    seasons = _periods.make_periods(t0, t1, "season")
+    table = _split(screened, seasons, opt, met)
+    i = table["interval"].values
+    depth = screened["gauge_depth_used"].values[i]
+    used = screened["used"].values.astype(bool)[i]
+    weight = np.where(used, depth * table["share"].values / mult[i], 0.0)
+    s_of = pd.Index(_periods.SEASON_NAMES).get_indexer(seasons["season"].values)
+    flat = site_idx[i] * 4 + s_of[table["period"].values]
+    num, den = _weighted(table, screened, weight, used, flat, n_site * 4, species)
+    by_season = {sp: (num[sp] / np.where(den[sp] > 0, den[sp], np.nan)).reshape(n_site, 4)
+                 for sp in species}
+    whole = {sp: num[sp].reshape(n_site, 4).sum(1) /
+             np.where(den[sp].reshape(n_site, 4).sum(1) > 0,
+                      den[sp].reshape(n_site, 4).sum(1), np.nan) for sp in species}
+    return by_season, whole
+
+
+def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptions(),
+                   met: xr.Dataset | None = None) -> xr.Dataset:
+    """Precipitation-weighted means, completeness and wet deposition per site and period.
+
+    Parameters
+    ----------
+    screened : xarray.Dataset
+        Output of :func:`workbench.wet.screen` (dim ``sample``).
+    periods : pandas.DataFrame or str
+        A period table of :func:`workbench.periods.make_periods`, or a resolution
+        (``"month"``, ``"season"``, ``"year"``, ``"hydro_year"``) to build one over
+        the span of the samples.
+    options : WetOptions
+        Straddle rule, completeness thresholds, period fill, sea-salt tracer.
+    met : xarray.Dataset, optional
+        Hourly ``precipitation`` [mm], dims (site, time = end of hour), for the
+        ``straddle="met"`` rule.
+
+    Returns
+    -------
+    xarray.Dataset
+        Dims (``site``, ``period``) [and ``ion`` for per-ion counts]:
+        ``precipitation`` [mm] (all gauge-valid samples), ``precipitation_valid``
+        [mm]; ``pwm_<X>`` [mol m-3] for each ion and H; ``pH_pwm`` [1];
+        ``pwm_nss<X>`` [mol m-3]; ``dep_<X>`` [mol m-2], ``dep_<X>_eq_ha``
+        [eq ha-1], ``dep_<X>_kg_ha`` [kg S or N ha-1] for SO4, NO3, NH4 and nss SO4;
+        ``gauge_fraction``, ``coverage_fraction``, ``valid_precip_fraction`` [1];
+        counts ``n_samples``, ``n_valid``, ``n_used``, ``n_flagged``,
+        ``n_excluded``, ``n_dry``, ``n_gauge_filled``; ``status`` (complete |
+        flagged | filled | missing), ``completeness_reasons``, ``filled``;
+        ``ion_valid_precip_fraction``, ``ion_n_valid``, ``ion_n_censored``
+        (site, period, ion).  The attributes hold the provenance (JSON texts).
+
+    Notes
+    -----
+    For sample *i* with gauge depth :math:`P_i`, share :math:`f_{ip}` of it in
+    period *p* (share of hours, or of hourly precipitation) and mean multiplicity
+    :math:`m_i` (number of collocated samples covering it, normally 1):
+
+    .. math:: w_{ip} = P_i f_{ip} / m_i, \\quad
+              P_p = \\sum_i w_{ip}, \\quad
+              \\bar C_p = \\frac{\\sum_{i\\,valid} w_{ip} C_i}{\\sum_{i\\,valid} w_{ip}},
+              \\quad D_p = \\bar C_p P_p
+
+    The flux uses the precipitation of all gauge-valid samples, not only of the
+    samples with valid chemistry.  The annual flux is the annual PWM times the
+    annual precipitation, so monthly fluxes need not add up to it exactly.
+    """
+    opt = options
+    ptable = _periods_table(periods, screened, opt)
+    sites = np.unique(screened["site"].values.astype(str))
+    n_site, n_per = len(sites), len(ptable)
+    site_idx = pd.Index(sites).get_indexer(screened["site"].values.astype(str))
+    species = _species_list(screened)
+    status = screened["status"].values.astype(str)
+    used_s = screened["used"].values.astype(bool)
+    gauge_ok = screened["gauge_valid"].values.astype(bool)
+    depth = screened["gauge_depth_used"].values.astype(float)
+    covering = used_s | (status == "dry")
+
+    s_all = screened["start"].values.astype("datetime64[ns]")
+    e_all = screened["end"].values.astype("datetime64[ns]")
+    p_s = ptable["start"].values.astype("datetime64[ns]")
+    p_e = ptable["end"].values.astype("datetime64[ns]")
+    origin = min(s_all.min(), p_s.min()) if len(s_all) else p_s.min()
+    span = (max(e_all.max() if len(e_all) else p_e.max(), p_e.max()) - origin) / np.timedelta64(1, "h")
+    gauge_prof = CoverageProfile(site_idx[gauge_ok], s_all[gauge_ok], e_all[gauge_ok], n_site,
+                                 origin, span)
+    cover_prof = CoverageProfile(site_idx[covering], s_all[covering], e_all[covering], n_site,
+                                 origin, span)
+    mult = np.where(gauge_ok, gauge_prof.mean_multiplicity(site_idx, s_all, e_all), 1.0)
+    mult = np.where(mult >= 1.0, mult, 1.0)
+
+    table = _split(screened, ptable, opt, met)
+    i = table["interval"].values
+    flat = site_idx[i] * n_per + table["period"].values
+    n_flat = n_site * n_per
+    weight = np.where(gauge_ok[i], depth[i] * table["share"].values / mult[i], 0.0)
+    used = used_s[i]
+    shape = (n_site, n_per)
+
+    def per(values):
+        return group_sums(values, flat, n_flat).reshape(shape)
+
+    # --- precipitation, coverage, counts ------------------------------------------------
+    gs, ge = np.repeat(np.arange(n_site), n_per), np.tile(p_e, n_site)
+    gstart = np.tile(p_s, n_site)
+    hours = np.tile(ptable["hours"].values, n_site).reshape(shape)
+    gauge_hours = gauge_prof.covered_hours(gs, gstart, ge).reshape(shape)
+    cover_hours = cover_prof.covered_hours(gs, gstart, ge).reshape(shape)
+    precip = np.where(gauge_hours > 0, per(weight), np.nan)
+    precip_valid = np.where(gauge_hours > 0, per(np.where(used, weight, 0.0)), np.nan)
+    counts = {f"n_{s}": per((status[i] == s).astype(float)).astype(int) for s in STATUSES}
+    n_samples = per(np.ones(len(i))).astype(int)
+    n_valid = counts["n_used"] + counts["n_flagged"]
+    filled_src = screened["gauge_source"].values.astype(str)
+    n_gauge_filled = per((np.isin(filled_src[i], ["collector", "met"])).astype(float)).astype(int)
+    gauge_fraction = gauge_hours / hours
+    coverage_fraction = cover_hours / hours
+    with np.errstate(invalid="ignore", divide="ignore"):
+        vpf = np.where(precip > 0, precip_valid / np.where(precip > 0, precip, 1.0),
+                       np.where(precip == 0, 1.0, np.nan))
+
+    # --- PWMs ---------------------------------------------------------------------------
+    num, den = _weighted(table, screened, weight, used, flat, n_flat, species)
+    pwm = {sp: (num[sp] / np.where(den[sp] > 0, den[sp], np.nan)).reshape(shape)
+           for sp in species}
+
+    # --- completeness and status --------------------------------------------------------
+    missing = (n_samples == 0) | ~(gauge_hours > 0)
+    wet = precip > 0
+    fails = [
+        (gauge_fraction < opt.min_gauge_fraction, "gauge record below minimum"),
+        (coverage_fraction < opt.min_coverage_fraction, "sample coverage below minimum"),
+        (wet & (vpf < opt.min_valid_precip_fraction), "valid-chemistry precipitation below minimum"),
+        (wet & (n_valid < opt.min_valid_samples), "too few valid samples"),
+    ]
+    reasons = np.full(shape, "", dtype=object)
+    reasons = _join(reasons, n_samples == 0, "no samples")
+    reasons = _join(reasons, (n_samples > 0) & ~(gauge_hours > 0), "no valid gauge depth")
+    failed = np.zeros(shape, bool)
+    for mask, label in fails:
+        reasons = _join(reasons, mask & ~missing, label)
+        failed |= mask
+    failed &= ~missing
+    filled = np.zeros(shape, bool)
+    fill_n = 0
+    if opt.period_fill == "seasonal" and failed.any():
+        by_season, whole = _climatology(screened, opt, met, site_idx, n_site, species, mult)
+        cat = pd.Index(_periods.SEASON_NAMES).get_indexer(ptable["season"].values)
+        has_season = ptable["kind"].isin(["month", "season"]).values & (cat >= 0)
+        for sp in species:
+            clim = np.where(has_season[None, :], by_season[sp][:, np.clip(cat, 0, 3)],
+                            whole[sp][:, None])
+            take = failed & wet & np.isfinite(clim)
+            filled |= take
+            pwm[sp] = np.where(take, clim, pwm[sp])
+        fill_n = int(filled.sum())
+    period_status = np.select([missing, filled, failed], ["missing", "filled", "flagged"],
+                              "complete").astype(object)
+
+    # --- fluxes and sea salt ------------------------------------------------------------
+    out = {}
+    coords = {"site": sites, "period": ptable["label"].values,
+              "period_start": ("period", p_s), "period_end": ("period", p_e),
+              "period_kind": ("period", ptable["kind"].values.astype(str)),
+              "period_hours": ("period", ptable["hours"].values, {"units": "h"})}
+
+    def var(name, values, units, long_name, **extra):
+        attrs = {"long_name": long_name, **extra}
+        if units:
+            attrs["units"] = units
+        out[name] = (("site", "period"), values, attrs)
+
+    def flux(values):
+        return np.where(precip == 0, 0.0, values * precip * M_PER_MM)
+
+    var("precipitation", precip, "mm", "precipitation depth of all gauge-valid samples")
+    var("precipitation_valid", precip_valid, "mm", "precipitation depth with valid chemistry")
+    tracer = opt.seasalt_tracer
+    nss = {}
+    if tracer in pwm:
+        for ion in seasalt.corrected_ions(tracer, species):
+            nss[f"nss{ion}"] = (seasalt.non_seasalt(pwm[ion], pwm[tracer], ion, tracer), ion)
+    for sp in species:
+        label = "free acidity H+" if sp == "H" else sp
+        var(f"pwm_{sp}", pwm[sp], "mol m-3", f"precipitation-weighted mean of {label}")
+    var("pH_pwm", pH_from_hydrogen(pwm["H"]), "1", "pH of the precipitation-weighted mean H+")
+    for name, (values, ion) in nss.items():
+        var(f"pwm_{name}", values, "mol m-3",
+            f"precipitation-weighted mean of non-sea-salt {ion} (tracer {tracer})",
+            seasalt_tracer=tracer)
+    all_dep = [(sp, sp, pwm[sp]) for sp in species] + [(n, ion, v) for n, (v, ion) in nss.items()]
+    for name, ion, values in all_dep:
+        dep = flux(values)
+        var(f"dep_{name}", dep, "mol m-2", f"wet deposition of {name}")
+        var(f"dep_{name}_eq_ha", deposition_in(dep, ion, "eq_ha"), "eq ha-1",
+            f"wet deposition of {name} in equivalents")
+        if ion in ELEMENT_IONS:
+            var(f"dep_{name}_kg_ha", deposition_in(dep, ion, "kg_ha"), _UNIT_KG[ion],
+                f"wet deposition of {name} as {_UNIT_KG[ion].split()[1]}")
+    var("gauge_fraction", gauge_fraction, "1", "fraction of the period with a valid gauge record")
+    var("coverage_fraction", coverage_fraction, "1",
+        "fraction of the period covered by valid or dry samples")
+    var("valid_precip_fraction", vpf, "1", "fraction of precipitation with valid chemistry")
+    var("n_samples", n_samples, "1", "samples overlapping the period")
+    var("n_valid", n_valid, "1", "samples with valid chemistry (used + flagged)")
+    for key, values in counts.items():
+        var(key, values, "1", f"samples with status {key[2:]}")
+    var("n_gauge_filled", n_gauge_filled, "1", "samples with a filled gauge depth")
+    var("status", period_status, "", "complete | flagged | filled | missing")
+    var("completeness_reasons", reasons, "", "failed completeness criteria ('; '-joined)")
+    var("filled", filled, "", "PWM filled with the multi-year seasonal PWM")
+    ds = xr.Dataset(out, coords=coords)
+
+    # --- per-ion completeness -----------------------------------------------------------
+    ions = [sp for sp in species]
+    frac_ion = np.stack([np.where(precip > 0, den[sp].reshape(shape) / np.where(precip > 0, precip, 1.0),
+                                  np.nan) for sp in ions], axis=-1)
+    nval_ion, ncen_ion = [], []
+    for sp in ions:
+        c = np.asarray(screened[sp].values, dtype=float)[i]
+        nval_ion.append(per((used & np.isfinite(c)).astype(float)).astype(int))
+        cen_name = f"{sp}_censored"
+        cen = (np.asarray(screened[cen_name].values, bool)[i] if cen_name in screened
+               else np.zeros(len(i), bool))
+        ncen_ion.append(per((used & cen).astype(float)).astype(int))
+    ds = ds.assign_coords(ion=ions)
+    ds["ion_valid_precip_fraction"] = (("site", "period", "ion"), frac_ion,
+                                       {"units": "1", "long_name": "fraction of precipitation "
+                                        "with a valid value of the ion"})
+    ds["ion_n_valid"] = (("site", "period", "ion"), np.stack(nval_ion, -1),
+                         {"units": "1", "long_name": "valid samples with a value of the ion"})
+    ds["ion_n_censored"] = (("site", "period", "ion"), np.stack(ncen_ion, -1),
+                            {"units": "1", "long_name": "censored values among valid samples"})
+
+    # --- provenance ---------------------------------------------------------------------
+    in_period = np.zeros(screened.sizes["sample"], bool)
+    in_period[np.unique(i)] = True
+    reason_labels = [v for v in screened.data_vars if v.startswith("qa_")]
+    excluded_by = {screened[v].attrs["long_name"]: int((screened[v].values & in_period &
+                                                        (status == "excluded")).sum())
+                   for v in reason_labels}
+    flagged_by = {screened[v].attrs["long_name"]: int((screened[v].values & in_period &
+                                                       (status == "flagged")).sum())
+                  for v in reason_labels}
+    censored = {sp: int(((np.asarray(screened[f"{sp}_censored"].values, bool)) & in_period &
+                         used_s).sum()) for sp in species if f"{sp}_censored" in screened}
+    ds.attrs.update({
+        "title": "wet deposition per site and period",
+        "samples_total": int(screened.sizes["sample"]),
+        "samples_in_periods": int(in_period.sum()),
+        "samples_by_status": json.dumps({s: int(((status == s) & in_period).sum())
+                                         for s in STATUSES}),
+        "excluded_by_reason": json.dumps({k: v for k, v in excluded_by.items() if v}),
+        "flagged_by_reason": json.dumps({k: v for k, v in flagged_by.items() if v}),
+        "censored_values_used": json.dumps(censored),
+        "gauge_filled": json.dumps({m: int(((filled_src == m) & in_period).sum())
+                                    for m in ("collector", "met")}),
+        "periods_by_status": json.dumps({s: int((period_status == s).sum())
+                                         for s in PERIOD_STATUSES}),
+        "periods_filled": fill_n,
+        "straddle_split_by_met": int((table["share_method"].values == "met").sum()),
+        "detection_limit_treatment": screened.attrs.get("detection_limit_treatment", ""),
+        "wet_options": opt.to_json(),
+        "wet_screen_options": screened.attrs.get("wet_screen_options", ""),
+        "seasalt_tracer": tracer,
+    })
+    return ds
+
+
+def to_table(wet: xr.Dataset) -> pd.DataFrame:
+    """Tidy table of a wet-deposition Dataset: one row per site, period and species.
+
+    Parameters
+    ----------
+    wet : xarray.Dataset
+        Output of :func:`wet_deposition`.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns ``site, period, period_start, period_end, species, pwm [mol m-3],
+        pwm [ueq/L], deposition [mol m-2], deposition [eq/ha], deposition [kg/ha]``
+        (kg of S or N for SO4, NO3, NH4 and nss SO4; NaN for the others),
+        ``kg_basis``, ``precipitation [mm]``, ``gauge_fraction``,
+        ``coverage_fraction``, ``valid_precip_fraction``, ``n_valid``, ``status``,
+        ``filled``.
+    """
+    from .. import species as _species
+    frames = []
+    base = wet[["precipitation", "gauge_fraction", "coverage_fraction", "valid_precip_fraction",
+                "n_valid", "status", "filled"]].to_dataframe().reset_index()
+    names = [v[4:] for v in wet.data_vars if v.startswith("pwm_")]
+    for name in names:
+        ion = name[3:] if name.startswith("nss") else name
+        cols = {"pwm [mol m-3]": wet[f"pwm_{name}"],
+                "deposition [mol m-2]": wet[f"dep_{name}"],
+                "deposition [eq/ha]": wet[f"dep_{name}_eq_ha"]}
+        if f"dep_{name}_kg_ha" in wet:
+            cols["deposition [kg/ha]"] = wet[f"dep_{name}_kg_ha"]
+        part = xr.Dataset(cols).to_dataframe().reset_index()
+        part["pwm [ueq/L]"] = (part["pwm [mol m-3]"] * _species.get(ion).eq_per_mol *
+                               UMOL_L_PER_MOL_M3)
+        part["kg_basis"] = _UNIT_KG.get(ion, "").split(" ")[1] if ion in _UNIT_KG else ""
+        part.insert(2, "species", name)
+        frames.append(part)
+    long = pd.concat(frames, ignore_index=True)
+    long = long.merge(base, on=["site", "period"], how="left", suffixes=("", "_b"))
+    first = ["site", "period", "period_start", "period_end", "species", "pwm [mol m-3]",
+             "pwm [ueq/L]", "deposition [mol m-2]", "deposition [eq/ha]", "deposition [kg/ha]",
+             "kg_basis", "precipitation", "gauge_fraction", "coverage_fraction",
+             "valid_precip_fraction", "n_valid", "status", "filled"]
+    if "deposition [kg/ha]" not in long:
+        long["deposition [kg/ha]"] = np.nan
+    long = long.rename(columns={"precipitation": "precipitation [mm]"})
+    first = [c if c != "precipitation" else "precipitation [mm]" for c in first]
+    return long[first]
