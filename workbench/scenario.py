@@ -20,6 +20,9 @@ except ModuleNotFoundError:  # pragma: no cover
     import tomli as tomllib
 
 #: section -> key -> (types, default, description).  A default of None means "not set".
+#: The sections [wet], [dry] and [budget] are filled from the options dataclasses of
+#: those chains (see :func:`option_sections`), so that every option has exactly one
+#: default, stated where it is used.
 SCHEMA: dict = {
     "inputs": {
         "sites": (str, None, "site catalogue (TOML), required"),
@@ -27,11 +30,54 @@ SCHEMA: dict = {
         "air": (str, None, "air concentrations (CSV)"),
         "met": (str, None, "hourly meteorology (CSV or NetCDF)"),
     },
+    "period": {
+        "start": (str, None, "first instant of the budget (ISO 8601, UTC); default: the data"),
+        "end": (str, None, "end of the budget, exclusive (ISO 8601, UTC); default: the data"),
+        "resolution": (str, "year", "'month', 'season', 'year' or 'hydro_year'"),
+    },
     "air": {
         "reference_state": (str, None, "reference state of mass concentrations when the "
                             "air file states none: 'ambient' or '<T> degC, <p> hPa'"),
     },
 }
+
+#: Keys allowed in a [sites.<id>] table: per-site overrides of the catalogue.
+SITE_OVERRIDES = ("canopy_height_m", "roughness_length_m", "displacement_height_m",
+                  "terrain_slope_deg", "lai", "lai_min", "lai_max", "collector",
+                  "receptors", "met_land_use", "wind_height_m", "sampler_height_m")
+
+
+def option_sections() -> dict:
+    """Scenario sections built from the options dataclasses: name -> dataclass."""
+    from .budget import BudgetOptions
+    from .drydep import DryOptions
+    from .wet import WetOptions
+    return {"wet": WetOptions, "dry": DryOptions, "budget": BudgetOptions}
+
+
+def _type_ok(value, default) -> bool:
+    """A scenario value fits an option whose default is `default`."""
+    if default is None:
+        return True
+    if isinstance(default, bool):
+        return isinstance(value, bool)
+    if isinstance(default, (int, float)):
+        return isinstance(value, (int, float)) and not isinstance(value, bool)
+    if isinstance(default, str):
+        return isinstance(value, str)
+    if isinstance(default, (tuple, list)):
+        return isinstance(value, list)
+    if isinstance(default, dict):
+        return isinstance(value, dict)
+    return True
+
+
+def _type_name(default) -> str:
+    for t, name in ((bool, "boolean"), ((int, float), "number"), (str, "string"),
+                    ((tuple, list), "array"), (dict, "table")):
+        if isinstance(default, t):
+            return name
+    return "value"
 
 
 @dataclass
@@ -51,6 +97,8 @@ class Scenario:
     path: Path | None
     data: dict
     given: dict = field(default_factory=dict)
+    options: dict = field(default_factory=dict)
+    fixed_velocity: dict = field(default_factory=dict)
 
     @property
     def base(self) -> Path:
@@ -69,8 +117,12 @@ class Scenario:
 
     def resolved(self) -> dict:
         """The scenario with every default and absolute paths, for provenance."""
+        import dataclasses
         d = copy.deepcopy(self.data)
         d["inputs"] = {k: str(v) for k, v in self.input_paths().items()}
+        for name, obj in self.options.items():
+            d[name] = obj.to_dict() if hasattr(obj, "to_dict") else dataclasses.asdict(obj)
+        d.setdefault("dry", {})["fixed_velocity"] = dict(self.fixed_velocity)
         return d
 
 
@@ -89,46 +141,132 @@ def _line_of(text_lines, section, key=None):
     return start + 1
 
 
+def _check_plain_section(section, keys, given, path, lines):
+    out = {}
+    for key, value in given.items():
+        if key not in keys:
+            raise ScenarioError("unknown key", file=path, line=_line_of(lines, section, key),
+                                column=f"{section}.{key}", expected="one of "
+                                + ", ".join(keys) + suggest(key, keys))
+        typ, _, desc = keys[key]
+        if isinstance(value, bool) and typ is not bool or not isinstance(value, typ):
+            names = typ.__name__ if isinstance(typ, type) else " or ".join(t.__name__ for t in typ)
+            raise ScenarioError("wrong type", file=path, line=_line_of(lines, section, key),
+                                column=f"{section}.{key}", value=value,
+                                expected=f"a {names} ({desc})")
+        out[key] = value
+    for key, (_, default, _) in keys.items():
+        out.setdefault(key, copy.deepcopy(default))
+    return out
+
+
+def _check_option_section(section, cls, given, path, lines):
+    """Check a section against an options dataclass; return the options object."""
+    import dataclasses
+    fields = {f.name: f for f in dataclasses.fields(cls)}
+    defaults = {}
+    for name, f in fields.items():
+        if f.default is not dataclasses.MISSING:
+            defaults[name] = f.default
+        elif f.default_factory is not dataclasses.MISSING:  # type: ignore[misc]
+            defaults[name] = f.default_factory()
+        else:
+            defaults[name] = None
+    for key, value in given.items():
+        if key not in fields:
+            raise ScenarioError("unknown key", file=path, line=_line_of(lines, section, key),
+                                column=f"{section}.{key}", expected="one of "
+                                + ", ".join(fields) + suggest(key, fields))
+        if not _type_ok(value, defaults[key]):
+            raise ScenarioError("wrong type", file=path, line=_line_of(lines, section, key),
+                                column=f"{section}.{key}", value=value,
+                                expected=f"a {_type_name(defaults[key])} like the default "
+                                f"{defaults[key]!r}")
+    try:
+        if hasattr(cls, "from_dict"):
+            return cls.from_dict(dict(given))
+        conv = {k: tuple(v) if isinstance(defaults[k], tuple) else v for k, v in given.items()}
+        return cls(**conv)
+    except (ValueError, TypeError) as exc:
+        key = next(iter(given), None)
+        for k in given:
+            if k in str(exc):
+                key = k
+                break
+        raise ScenarioError(f"invalid value ({exc})", file=path,
+                            line=_line_of(lines, section, key) if key else _line_of(lines, section),
+                            column=f"{section}.{key}" if key else section) from None
+
+
 def validate(raw: dict, path=None, text: str = "") -> Scenario:
-    """Check a parsed scenario against :data:`SCHEMA` and fill in the defaults.
+    """Check a parsed scenario against the schema and fill in the defaults.
 
     Raises
     ------
     ScenarioError
-        For an unknown section or key (with a suggestion) or a wrong type.
+        For an unknown section or key (with a suggestion), a wrong type, an invalid
+        option value, or an input path that does not exist.
     """
+    from . import species as _species
     lines = text.splitlines()
-    data = {}
+    options = option_sections()
+    known = list(SCHEMA) + list(options) + ["sites"]
     for section, value in raw.items():
-        if section not in SCHEMA:
+        if section not in known:
             raise ScenarioError("unknown section", file=path, line=_line_of(lines, section),
-                                column=section, expected="one of " + ", ".join(SCHEMA)
-                                + suggest(section, SCHEMA))
+                                column=section, expected="one of " + ", ".join(known)
+                                + suggest(section, known))
         if not isinstance(value, dict):
             raise ScenarioError("not a table", file=path, column=section,
                                 expected=f"a [{section}] table")
+    data = {}
     for section, keys in SCHEMA.items():
-        given = raw.get(section, {})
-        out = {}
-        for key, value in given.items():
-            if key not in keys:
-                raise ScenarioError("unknown key", file=path, line=_line_of(lines, section, key),
-                                    column=f"{section}.{key}", expected="one of "
-                                    + ", ".join(keys) + suggest(key, keys))
-            typ, _, desc = keys[key]
-            if isinstance(value, bool) and typ is not bool or not isinstance(value, typ):
-                names = typ.__name__ if isinstance(typ, type) else " or ".join(t.__name__ for t in typ)
-                raise ScenarioError("wrong type", file=path, line=_line_of(lines, section, key),
-                                    column=f"{section}.{key}", value=value,
-                                    expected=f"a {names} ({desc})")
-            out[key] = value
-        for key, (_, default, _) in keys.items():
-            out.setdefault(key, copy.deepcopy(default))
-        data[section] = out
+        data[section] = _check_plain_section(section, keys, raw.get(section, {}), path, lines)
+    if data["period"]["resolution"] not in ("month", "season", "year", "hydro_year"):
+        raise ScenarioError("unknown resolution", file=path,
+                            line=_line_of(lines, "period", "resolution"), column="period.resolution",
+                            value=data["period"]["resolution"],
+                            expected="'month', 'season', 'year' or 'hydro_year'"
+                            + suggest(data["period"]["resolution"], ["month", "season", "year", "hydro_year"]))
+    objects = {}
+    fixed = {}
+    for section, cls in options.items():
+        given = dict(raw.get(section, {}))
+        if section == "dry":
+            fixed = given.pop("fixed_velocity", {})
+            if not isinstance(fixed, dict):
+                raise ScenarioError("not a table", file=path, column="dry.fixed_velocity",
+                                    expected="a [dry.fixed_velocity] table of species = cm/s")
+            for sp, v in fixed.items():
+                if sp not in _species.SPECIES or _species.SPECIES[sp].phase == "ion":
+                    choices = list(_species.AIR_GASES + _species.AIR_PARTICLES)
+                    raise ScenarioError("unknown species", file=path,
+                                        line=_line_of(lines, "dry.fixed_velocity", sp),
+                                        column=f"dry.fixed_velocity.{sp}",
+                                        expected="one of " + ", ".join(choices) + suggest(sp, choices))
+                if isinstance(v, bool) or not isinstance(v, (int, float)) or v < 0:
+                    raise ScenarioError("wrong type", file=path,
+                                        line=_line_of(lines, "dry.fixed_velocity", sp),
+                                        column=f"dry.fixed_velocity.{sp}", value=v,
+                                        expected="a deposition velocity >= 0 in cm/s")
+        objects[section] = _check_option_section(section, cls, given, path, lines)
+    site_over = raw.get("sites", {})
+    for sid, table in site_over.items():
+        if not isinstance(table, dict):
+            raise ScenarioError("not a table", file=path, column=f"sites.{sid}",
+                                expected=f"a [sites.{sid}] table of overrides")
+        for key in table:
+            if key not in SITE_OVERRIDES:
+                raise ScenarioError("unknown key", file=path,
+                                    line=_line_of(lines, f"sites.{sid}", key),
+                                    column=f"sites.{sid}.{key}", expected="one of "
+                                    + ", ".join(SITE_OVERRIDES) + suggest(key, SITE_OVERRIDES))
+    data["sites"] = copy.deepcopy(site_over)
     if data["inputs"]["sites"] is None:
         raise ScenarioError("missing required key", file=path, line=_line_of(lines, "inputs"),
                             column="inputs.sites", expected="the path of the site catalogue")
-    sc = Scenario(Path(path) if path is not None else None, data, raw)
+    sc = Scenario(Path(path) if path is not None else None, data, raw, objects,
+                  {k: float(v) for k, v in fixed.items()})
     for role, p in sc.input_paths().items():
         if not p.exists():
             raise ScenarioError("input file does not exist", file=path,

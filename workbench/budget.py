@@ -1,0 +1,499 @@
+"""Site budgets of total sulfur and nitrogen: wet + dry, per site, receptor and period.
+
+Components (mol m-2 of the element; every S and N species holds one atom):
+
+* sulfur: wet SO4 (non-sea-salt by default, or total), dry SO2, dry pSO4 (non-sea-salt
+  where pNa is measured and the basis is nss);
+* nitrogen: wet NO3, wet NH4, dry HNO3, dry pNO3, dry pNH4, dry NH3 (deposition only:
+  no compensation point), dry NO2.
+
+Each component carries its completeness and a status (``complete``, ``flagged``,
+``filled``, ``partial``, ``missing``); a total built on a partial set of components
+says so.  Derived quantities: dry and wet shares, oxidized and reduced N, and the
+potential acidity 2 nss-S + oxidized N + reduced N [eq ha-1] (kept apart from the wet
+chain's free acidity H+).
+"""
+from __future__ import annotations
+
+import json
+from dataclasses import asdict, dataclass, field
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from . import species as _species
+from .dryflux import DryFluxOptions, fill_diurnal, period_deposition, to_periods
+from .errors import WorkbenchError, suggest
+from .units import element_deposition_in
+
+#: (element, pathway, species, source variable) of every budget component, in order.
+COMPONENTS = (
+    ("S", "wet", "SO4"), ("S", "dry", "SO2"), ("S", "dry", "pSO4"),
+    ("N", "wet", "NO3"), ("N", "wet", "NH4"), ("N", "dry", "HNO3"), ("N", "dry", "pNO3"),
+    ("N", "dry", "pNH4"), ("N", "dry", "NH3"), ("N", "dry", "NO2"),
+)
+OXIDIZED_N = ("NO3", "HNO3", "pNO3", "NO2")
+REDUCED_N = ("NH4", "NH3", "pNH4")
+PARTICLES = ("pSO4", "pNO3", "pNH4")
+#: gas/particle pairs whose split a filter pack may bias (ammonium nitrate volatility).
+PAIRS = {"nitrate": ("HNO3", "pNO3"), "ammonium": ("NH3", "pNH4")}
+STATUS_ORDER = ("complete", "filled", "flagged")
+
+#: What the budget leaves out, with an order of magnitude where the literature gives one
+#: (ranges recalled from memory of review papers; see docs/budget.md).
+OMISSIONS = (
+    ("organic nitrogen in precipitation", "often 10-30 % of wet N (Cornell 2011, "
+     "Environ. Pollut. 159, 2214; from memory)"),
+    ("cloud and fog deposition", "small in lowlands; at hill and ridge sites in cloud it can "
+     "equal or exceed wet deposition (Fowler et al. 1988; from memory)"),
+    ("coarse particles not sampled by the inlet", "a few % to tens of % of particle dry "
+     "deposition near coasts and dusty fields (common practice)"),
+    ("unmeasured species (e.g. PAN, HONO, organic nitrates, NO2 where not measured)",
+     "PAN and organic nitrates a few % of dry oxidized N (from memory)"),
+    ("bidirectional ammonia exchange", "NH3 treated as deposition only; emission from "
+     "fertilized fields can reverse the flux (Sutton et al. 1998; from memory)"),
+    ("within-period covariance of concentration and Vd", "period-mean C times mean Vd "
+     "misses 10-30 % for some species (see docs/budget.md)"),
+)
+
+
+class BudgetError(WorkbenchError):
+    """The budget refuses a combination of inputs and options (e.g. bulk + particles)."""
+
+
+@dataclass(frozen=True)
+class BudgetOptions:
+    """Options of the budget assembly and the dry-flux integration.
+
+    Attributes
+    ----------
+    sulfate_basis : {"nss", "total"}
+        Wet SO4 and dry pSO4 as non-sea-salt (default; critical-load work) or total.
+    pair_split : {"measured", "all_gas", "all_particle"}
+        How the nitrate and ammonium pairs enter the main numbers; the bracket of the
+        two extremes is always reported.
+    air_censored : {"half", "limit", "zero"}
+        Concentrations below detection (common practice: half the limit).
+    bulk_correction : {"none", "exclude_particles", "scale_wet"}
+        A bulk collector's "wet" deposition holds some dry deposition.  "none" refuses
+        to add particle dry deposition at a bulk site; "exclude_particles" leaves
+        particle dry deposition out (taken as caught by the collector);
+        "scale_wet" multiplies the bulk deposition by `bulk_wet_factor` and adds it.
+    bulk_wet_factor : float
+        Wet-only / bulk deposition ratio for "scale_wet" [1]; 0.8 is a typical value
+        for sulfate and nitrate in rural areas (common practice, from memory).
+    min_air_coverage : float
+        Share of a period's hours covered by concentrations for completeness [1];
+        0.75 (common practice).
+    require_all_seasons : bool
+        A year passes only when every season has concentrations (common practice).
+    min_vd_coverage : float
+        Share of covered hours with a modelled (not filled) Vd below which a component
+        is "filled" rather than "complete" [1] (our default 0.9).
+    min_slot_hours : int
+        See :data:`workbench.dryflux.MIN_SLOT_HOURS`.
+    diurnal_profile : dict
+        species -> 24 relative concentrations per UTC hour (sensitivity).
+    preferred_method : dict
+        species -> method to use where several samplers measure one species.
+    """
+
+    sulfate_basis: str = "nss"
+    pair_split: str = "measured"
+    air_censored: str = "half"
+    bulk_correction: str = "none"
+    bulk_wet_factor: float = 0.8
+    min_air_coverage: float = 0.75
+    require_all_seasons: bool = True
+    min_vd_coverage: float = 0.9
+    min_slot_hours: int = 7
+    diurnal_profile: dict = field(default_factory=dict)
+    preferred_method: dict = field(default_factory=dict)
+
+    _CHOICES = {"sulfate_basis": ("nss", "total"),
+                "pair_split": ("measured", "all_gas", "all_particle"),
+                "air_censored": ("half", "limit", "zero"),
+                "bulk_correction": ("none", "exclude_particles", "scale_wet")}
+
+    def __post_init__(self):
+        for name, choices in self._CHOICES.items():
+            v = getattr(self, name)
+            if v not in choices:
+                raise ValueError(f"BudgetOptions.{name} = {v!r} is not one of "
+                                 f"{', '.join(map(repr, choices))}{suggest(v, choices)}")
+        for name in ("min_air_coverage", "min_vd_coverage", "bulk_wet_factor"):
+            if not 0 <= getattr(self, name) <= 1:
+                raise ValueError(f"BudgetOptions.{name} must lie in [0, 1]")
+        for sp, prof in self.diurnal_profile.items():
+            if len(prof) != 24 or min(prof) < 0 or sum(prof) <= 0:
+                raise ValueError(f"BudgetOptions.diurnal_profile[{sp!r}] needs 24 values >= 0")
+
+    def to_dict(self) -> dict:
+        return asdict(self)
+
+    def flux_options(self) -> DryFluxOptions:
+        return DryFluxOptions(censored=self.air_censored, min_slot_hours=self.min_slot_hours,
+                              diurnal_profile=dict(self.diurnal_profile),
+                              preferred_method=dict(self.preferred_method))
+
+
+def annual_factor(periods: pd.DataFrame) -> np.ndarray:
+    """Factor turning a period's deposition into a yearly rate [1].
+
+    Hours in the year of the period's label (8784 in leap years) over the period's
+    hours; 1 for a calendar year.
+    """
+    year = np.where(periods["year"].to_numpy() > 0, periods["year"].to_numpy(),
+                    pd.DatetimeIndex(periods["start"]).year.to_numpy())
+    leap = ((year % 4 == 0) & (year % 100 != 0)) | (year % 400 == 0)
+    return np.where(leap, 8784.0, 8760.0) / periods["hours"].to_numpy(dtype=float)
+
+
+# ------------------------------------------------------------------------------ dry part
+
+def prepare_velocities(vd_ds: xr.Dataset, species_list, fixed_velocity=None, min_slot_hours=7):
+    """Gap-filled hourly Vd per species, with the fill mask and its source.
+
+    Parameters
+    ----------
+    vd_ds : xarray.Dataset or None
+        Output of :func:`workbench.drydep.velocities` (``vd_<species>`` [m s-1]).
+    species_list : iterable of str
+    fixed_velocity : dict, optional
+        species -> Vd [cm s-1] replacing the model (what-if and arithmetic checks).
+
+    Returns
+    -------
+    dict
+        species -> (filled Vd DataArray [m s-1], was_filled DataArray, source str).
+    """
+    fixed_velocity = fixed_velocity or {}
+    out = {}
+    for sp in species_list:
+        if sp in fixed_velocity:
+            base = vd_ds[f"vd_{sp}"] if vd_ds is not None and f"vd_{sp}" in vd_ds else None
+            if base is None:
+                raise BudgetError(f"fixed velocity for {sp} needs the hourly time axis of the met file")
+            vd = xr.full_like(base, fixed_velocity[sp] / 100.0)
+            out[sp] = (vd, xr.zeros_like(vd, dtype=bool), f"fixed {fixed_velocity[sp]} cm/s")
+            continue
+        if vd_ds is None or f"vd_{sp}" not in vd_ds:
+            continue
+        filled, was = fill_diurnal(vd_ds[f"vd_{sp}"].load(), min_slot_hours)
+        out[sp] = (filled, was, vd_ds.attrs.get("gas_scheme", "model"))
+    return out
+
+
+def _nss_particles(air: xr.Dataset, basis: str) -> xr.Dataset:
+    """Replace pSO4 by its non-sea-salt part where pNa is measured (Keene et al. 1986)."""
+    if basis != "nss" or "pSO4" not in air or "pNa" not in air:
+        return air
+    from .wet.seasalt import non_seasalt
+    air = air.copy()
+    na = air["pNa"].values
+    nss = non_seasalt(air["pSO4"].values, np.where(np.isfinite(na), na, 0.0), "SO4", "Na")
+    air["pSO4"] = air["pSO4"].copy(data=np.where(np.isfinite(air["pSO4"].values), nss, np.nan))
+    air["pSO4"].attrs["long_name"] = "particulate non-sea-salt sulfate (Keene et al. 1986)"
+    return air
+
+
+def _pair_air(air: xr.Dataset, pair: str, into: str) -> xr.Dataset:
+    """Air dataset with both members of a pair moved into one species (`into`)."""
+    gas, part = PAIRS[pair]
+    air = air.copy()
+    g = air[gas].values if gas in air else np.full(air.sizes["period"], np.nan)
+    p = air[part].values if part in air else np.full(air.sizes["period"], np.nan)
+    total = np.where(np.isfinite(g) & np.isfinite(p), g + p, np.nan)
+    other = part if into == gas else gas
+    air[into] = (("period",), total, dict(air[into].attrs if into in air else air[other].attrs))
+    air[f"{into}_censored"] = (("period",), np.zeros(air.sizes["period"], bool))
+    air[f"{into}_detection_limit"] = (("period",), np.full(air.sizes["period"], np.nan))
+    if f"{other}_method" in air and f"{into}_method" not in air:
+        air[f"{into}_method"] = air[f"{other}_method"]
+    if other in air:
+        air[other] = air[other] * 0.0
+    return air
+
+
+def dry_components(air, vel, met, sites, periods, options: BudgetOptions):
+    """Dry deposition of every measured species over the reporting periods.
+
+    Returns
+    -------
+    xarray.Dataset
+        Dims (site, receptor, period, species): ``deposition`` [mol m-2],
+        ``coverage``, ``vd_coverage``, ``vd_filled_share`` [1], ``measured`` (bool).
+    notes : list of str
+    """
+    fopt = options.flux_options()
+    species_list = [c[2] for c in COMPONENTS if c[1] == "dry"]
+    any_vd = next(iter(vel.values()))[0]
+    receptors = any_vd["receptor"].values
+    times = any_vd["time"].values
+    n_s, n_r, n_p, n_k = len(sites), len(receptors), len(periods), len(species_list)
+    dep = np.full((n_s, n_r, n_p, n_k), np.nan)
+    cov = np.zeros((n_s, n_p, n_k))
+    vd_cov = np.full((n_s, n_r, n_p, n_k), np.nan)
+    filled_share = np.full((n_s, n_r, n_p, n_k), np.nan)
+    bracket = {}
+    notes = []
+    air = _nss_particles(air, options.sulfate_basis)
+    if options.pair_split != "measured":
+        for pair, (gas, part) in PAIRS.items():
+            if gas in air and part in air:
+                air = _pair_air(air, pair, gas if options.pair_split == "all_gas" else part)
+
+    def one(air_in, sp, vd_sp):
+        vd, was, _ = vel[vd_sp]
+        vd = vd.reindex(site=list(sites))
+        rows, cs = period_deposition(air_in, sp, vd, met, fopt)
+        agg = to_periods(rows, cs, list(sites), periods, times)
+        return rows, agg, was.reindex(site=list(sites))
+
+    pa = np.searchsorted(times - np.timedelta64(30, "m"), periods["start"].values, "left")
+    pb = np.searchsorted(times - np.timedelta64(30, "m"), periods["end"].values, "left")
+    for k, sp in enumerate(species_list):
+        if sp not in air or sp not in vel:
+            continue
+        rows, agg, was = one(air, sp, sp)
+        if rows.attrs.get("notes"):
+            notes.append(rows.attrs["notes"])
+        dep[:, :, :, k] = agg["deposition"].values
+        cov[:, :, k] = agg["coverage"].values
+        vd, _, _ = vel[sp]
+        vd = vd.reindex(site=list(sites)).transpose("site", "receptor", "time").values
+        valid_raw = np.isfinite(vd) & ~was.transpose("site", "receptor", "time").values
+        c_valid = np.concatenate([np.zeros(valid_raw.shape[:-1] + (1,)), np.cumsum(valid_raw, -1)], -1)
+        c_fill = np.concatenate([np.zeros(valid_raw.shape[:-1] + (1,)),
+                                 np.cumsum(was.transpose("site", "receptor", "time").values, -1)], -1)
+        hours = np.maximum(pb - pa, 1)
+        vd_cov[:, :, :, k] = (c_valid[:, :, pb] - c_valid[:, :, pa]) / periods["hours"].to_numpy()
+        filled_share[:, :, :, k] = (c_fill[:, :, pb] - c_fill[:, :, pa]) / hours
+    # the bracket of dry N: each pair all as gas and all as particle
+    for pair, (gas, part) in PAIRS.items():
+        if gas in air and part in air and gas in vel and part in vel:
+            for how, into in (("all_gas", gas), ("all_particle", part)):
+                a2 = _pair_air(air, pair, into)
+                _, agg, _ = one(a2, into, into)
+                bracket[(pair, how)] = agg["deposition"].values
+    ds = xr.Dataset(
+        {"deposition": (("site", "receptor", "period", "species"), dep, {"units": "mol m-2"}),
+         "coverage": (("site", "period", "species"), cov, {"units": "1"}),
+         "vd_coverage": (("site", "receptor", "period", "species"), vd_cov, {"units": "1"}),
+         "vd_filled_share": (("site", "receptor", "period", "species"), filled_share, {"units": "1"})},
+        coords={"site": list(sites), "receptor": receptors, "period": periods["label"].values,
+                "species": species_list})
+    ds["measured"] = (("site", "species"), np.stack(
+        [np.isin(list(sites), np.unique(air["site"].values[np.isfinite(air[sp].values)]))
+         if sp in air else np.zeros(n_s, bool) for sp in species_list], -1))
+    for (pair, how), values in bracket.items():
+        ds[f"bracket_{pair}_{how}"] = (("site", "receptor", "period"), values, {"units": "mol m-2"})
+    return ds, notes
+
+
+# ------------------------------------------------------------------------------ assembly
+
+def _dry_status(coverage, vd_cov, filled_share, measured, season_ok, options):
+    status = np.full(coverage.shape, "complete", dtype=object)
+    status = np.where(filled_share > 1 - options.min_vd_coverage, "filled", status)
+    status = np.where((coverage < options.min_air_coverage) | ~season_ok, "flagged", status)
+    status = np.where(~np.isfinite(vd_cov) | (coverage <= 0), "missing", status)
+    return np.where(measured, status, "missing")
+
+
+def _season_ok(dry: xr.Dataset, season_cov, periods, options):
+    """(site, period, species): every season has concentrations, for year periods."""
+    ok = np.ones(dry["coverage"].shape, bool)
+    if options.require_all_seasons and season_cov is not None:
+        is_year = periods["kind"].isin(["year", "hydro_year"]).to_numpy()
+        ok[:, is_year, :] = season_cov[:, is_year, :]
+    return ok
+
+
+def combine_status(statuses, present_axis=-1):
+    """Status of a sum of components along the last axis.
+
+    ``missing`` components make the sum ``partial`` (``missing`` when all are);
+    otherwise the worst of flagged > filled > complete.
+    """
+    s = np.asarray(statuses, dtype=object)
+    missing = s == "missing"
+    worst = np.where((s == "flagged").any(-1), "flagged",
+                     np.where((s == "filled").any(-1), "filled", "complete"))
+    return np.where(missing.all(-1), "missing", np.where(missing.any(-1), "partial", worst)).astype(object), worst
+
+
+def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods: pd.DataFrame,
+             options: BudgetOptions, receptors, season_cov=None):
+    """Wet + dry components per site, receptor and period, with totals and status.
+
+    Parameters
+    ----------
+    wet : xarray.Dataset or None
+        Output of :func:`workbench.wet.wet_deposition` on the same periods.
+    dry : xarray.Dataset or None
+        Output of :func:`dry_components`.
+    catalogue : SiteCatalogue
+    periods : pandas.DataFrame
+    options : BudgetOptions
+    receptors : sequence of str
+        Receptor surfaces (coordinate of the result).
+    season_cov : ndarray, optional
+        (site, period, species) bool: every season covered (for years).
+
+    Returns
+    -------
+    xarray.Dataset
+        Dims (site, receptor, period, component); ``deposition`` [mol m-2 of element],
+        ``completeness`` [1], ``status`` (str), the wet and dry completeness fractions,
+        and per-element totals with their status.
+    """
+    sites = catalogue.ids
+    n_s, n_r, n_p = len(sites), len(receptors), len(periods)
+    comps = list(COMPONENTS)
+    n_c = len(comps)
+    dep = np.full((n_s, n_r, n_p, n_c), np.nan)
+    status = np.full((n_s, n_r, n_p, n_c), "missing", dtype=object)
+    compl = np.full((n_s, n_r, n_p, n_c), np.nan)
+    active = np.array([[r in catalogue[s].surfaces for r in receptors] for s in sites])
+    bulk = np.array([catalogue[s].collector == "bulk" for s in sites])
+    notes = []
+    for j, (el, path, sp) in enumerate(comps):
+        if path == "wet":
+            if wet is None:
+                continue
+            name = f"dep_nss{sp}" if (sp == "SO4" and options.sulfate_basis == "nss"
+                                      and "dep_nssSO4" in wet) else f"dep_{sp}"
+            if name not in wet:
+                continue
+            w = wet.reindex(site=sites, period=periods["label"].values)
+            d = w[name].values.astype(float)
+            if options.bulk_correction == "scale_wet":
+                d = np.where(bulk[:, None], d * options.bulk_wet_factor, d)
+            dep[:, :, :, j] = d[:, None, :]
+            st = w["status"].values.astype(object)
+            st = np.where(pd.isna(st), "missing", st)
+            status[:, :, :, j] = st[:, None, :]
+            frac = np.fmin(np.fmin(w["gauge_fraction"].values, w["coverage_fraction"].values),
+                           w["valid_precip_fraction"].values)
+            compl[:, :, :, j] = frac[:, None, :]
+        else:
+            if dry is None or sp not in dry["species"].values:
+                continue
+            if sp in PARTICLES and bulk.any():
+                if options.bulk_correction == "none" and bool(dry["measured"].sel(species=sp).values[bulk].any()):
+                    bad = [s for s, b in zip(sites, bulk) if b]
+                    raise BudgetError(
+                        f"site {bad[0]!r} has a bulk collector: its 'wet' deposition already "
+                        f"holds some dry deposition, so particle dry deposition ({sp}) is not "
+                        "added; name a correction in [budget] bulk_correction "
+                        "('exclude_particles' or 'scale_wet', see docs/budget.md)")
+            dd = dry.sel(species=sp).reindex(receptor=list(receptors))
+            d = dd["deposition"].values
+            cov = dd["coverage"].values[:, None, :] * np.ones((1, n_r, 1))
+            vdc = dd["vd_coverage"].values
+            fs = dd["vd_filled_share"].values
+            meas = dd["measured"].values[:, None, None] * np.ones((1, n_r, n_p), bool)
+            k = list(dry["species"].values).index(sp)
+            sok = _season_ok(dry, season_cov, periods, options)[:, :, k][:, None, :]
+            st = _dry_status(cov, vdc, fs, meas, sok, options)
+            if sp in PARTICLES and options.bulk_correction == "exclude_particles":
+                excl = bulk[:, None, None] & np.ones((1, n_r, n_p), bool)
+                d = np.where(excl, 0.0, d)
+                st = np.where(excl & (st != "missing"), "complete", st)
+                if excl.any():
+                    notes.append(f"{sp}: particle dry deposition left out at bulk-collector sites "
+                                 "(taken as caught by the collector)")
+            dep[:, :, :, j] = d
+            status[:, :, :, j] = st
+            compl[:, :, :, j] = np.fmin(cov, vdc)
+    dep = np.where(status == "missing", np.nan, dep)
+    comp_index = pd.MultiIndex.from_tuples(comps, names=("element", "pathway", "species"))
+    ds = xr.Dataset(
+        {"deposition": (("site", "receptor", "period", "component"), dep,
+                        {"units": "mol m-2", "long_name": "deposition as amount of element"}),
+         "completeness": (("site", "receptor", "period", "component"), compl, {"units": "1"}),
+         "status": (("site", "receptor", "period", "component"), status)},
+        coords={"site": sites, "receptor": list(receptors), "period": periods["label"].values,
+                "component": [f"{e}/{p}/{s}" for e, p, s in comps],
+                "element": ("component", [c[0] for c in comps]),
+                "pathway": ("component", [c[1] for c in comps]),
+                "species": ("component", [c[2] for c in comps]),
+                "period_start": ("period", periods["start"].values),
+                "period_end": ("period", periods["end"].values),
+                "period_hours": ("period", periods["hours"].to_numpy(dtype=float)),
+                "annual_factor": ("period", annual_factor(periods))})
+    ds["active"] = (("site", "receptor"), active)
+    ds = add_totals(ds)
+    if dry is not None:
+        for pair in PAIRS:
+            for how in ("all_gas", "all_particle"):
+                v = f"bracket_{pair}_{how}"
+                if v in dry:
+                    ds[v] = dry[v].reindex(receptor=list(receptors))
+    ds.attrs.update({"options": json.dumps(options.to_dict(), sort_keys=True),
+                     "notes": json.dumps(notes),
+                     "omissions": json.dumps([list(o) for o in OMISSIONS])})
+    return ds
+
+
+def add_totals(ds: xr.Dataset) -> xr.Dataset:
+    """Per-element sums by pathway (wet, dry, total), their status and completeness."""
+    el = ds["element"].values
+    pw = ds["pathway"].values
+    out = {}
+    for e in ("S", "N"):
+        for p in ("wet", "dry", "total"):
+            sel = (el == e) & ((pw == p) if p != "total" else True)
+            d = ds["deposition"].values[..., sel]
+            st = ds["status"].values[..., sel]
+            total = np.where(np.isfinite(d).any(-1), np.nansum(d, -1), np.nan)
+            combined, worst = combine_status(st)
+            out[f"{e}_{p}"] = (total, combined, worst,
+                               np.nanmin(np.where(st == "missing", np.nan, ds["completeness"].values[..., sel]), -1)
+                               if (st != "missing").any() else np.full(total.shape, np.nan))
+    names = list(out)
+    ds = ds.assign_coords(total=names)
+    ds["total_deposition"] = (("site", "receptor", "period", "total"),
+                              np.stack([out[n][0] for n in names], -1),
+                              {"units": "mol m-2", "long_name": "sum of components (element)"})
+    ds["total_status"] = (("site", "receptor", "period", "total"),
+                          np.stack([out[n][1] for n in names], -1))
+    ds["total_passes"] = (("site", "receptor", "period", "total"),
+                          np.stack([np.isin(out[n][2], ("complete", "filled")) & (out[n][1] != "missing")
+                                    for n in names], -1),
+                          {"long_name": "present components pass completeness"})
+    with np.errstate(all="ignore"):
+        ds["total_completeness"] = (("site", "receptor", "period", "total"),
+                                    np.stack([out[n][3] for n in names], -1), {"units": "1"})
+    return ds
+
+
+def derived(ds: xr.Dataset) -> xr.Dataset:
+    """Dry and wet shares, oxidized and reduced N, potential acidity [eq ha-1].
+
+    Potential acidity = 2 nss-S + oxidized N + reduced N in eq ha-1 (common practice);
+    the S term uses the budget's sulfate basis.
+    """
+    sp = ds["species"].values
+    el = ds["element"].values
+    d = ds["deposition"]
+
+    def part(mask):
+        m = xr.DataArray(mask, dims="component")
+        v = d.where(m)
+        return v.sum("component", min_count=1)
+
+    out = xr.Dataset()
+    out["oxidized_N"] = part(np.isin(sp, OXIDIZED_N) & (el == "N"))
+    out["reduced_N"] = part(np.isin(sp, REDUCED_N) & (el == "N"))
+    s_tot = ds["total_deposition"].sel(total="S_total")
+    out["potential_acidity_eq_ha"] = (element_deposition_in(s_tot, "S", "eq_ha")
+                                      + element_deposition_in(out["oxidized_N"], "N", "eq_ha")
+                                      + element_deposition_in(out["reduced_N"], "N", "eq_ha"))
+    for e in ("S", "N"):
+        tot = ds["total_deposition"].sel(total=f"{e}_total")
+        out[f"{e}_dry_share"] = ds["total_deposition"].sel(total=f"{e}_dry") / tot
+        out[f"{e}_wet_share"] = ds["total_deposition"].sel(total=f"{e}_wet") / tot
+    return out.drop_vars("total", errors="ignore")

@@ -1,0 +1,97 @@
+"""Tidy tables of a budget for export and display (``budget.csv``, the span mean)."""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from .units import element_deposition_in
+
+#: The first columns of budget.csv, in this order (a public interface).
+BUDGET_COLUMNS = ("site", "receptor", "period_start", "period_end", "element", "pathway",
+                  "species", "flux_kg_ha", "flux_eq_ha", "flux_kg_ha_yr", "flux_eq_ha_yr",
+                  "completeness", "status")
+
+
+def _rows(ds: xr.Dataset, dep_var, status_var, compl_var, comp_dim, element, pathway, species):
+    d = ds[dep_var].transpose("site", "receptor", "period", comp_dim)
+    n_s, n_r, n_p, n_c = d.shape
+    idx = np.indices((n_s, n_r, n_p, n_c)).reshape(4, -1)
+    el = np.asarray(element)[idx[3]]
+    values = d.values.reshape(-1)
+    kg = np.where(el == "S", element_deposition_in(values, "S", "kg_ha"),
+                  element_deposition_in(values, "N", "kg_ha"))
+    eq = np.where(el == "S", element_deposition_in(values, "S", "eq_ha"),
+                  element_deposition_in(values, "N", "eq_ha"))
+    mmol = element_deposition_in(values, "N", "mmol_m2")
+    fac = ds["annual_factor"].values[idx[2]]
+    frame = pd.DataFrame({
+        "site": ds["site"].values[idx[0]], "receptor": ds["receptor"].values[idx[1]],
+        "period_start": pd.to_datetime(ds["period_start"].values[idx[2]]),
+        "period_end": pd.to_datetime(ds["period_end"].values[idx[2]]),
+        "element": el, "pathway": np.asarray(pathway)[idx[3]],
+        "species": np.asarray(species)[idx[3]],
+        "flux_kg_ha": kg, "flux_eq_ha": eq, "flux_kg_ha_yr": kg * fac, "flux_eq_ha_yr": eq * fac,
+        "completeness": ds[compl_var].transpose("site", "receptor", "period", comp_dim).values.reshape(-1),
+        "status": ds[status_var].transpose("site", "receptor", "period", comp_dim).values.reshape(-1),
+        "flux_mmol_m2": mmol, "period": ds["period"].values[idx[2]],
+    })
+    active = ds["active"].values[idx[0], idx[1]]
+    return frame[active]
+
+
+def budget_table(ds: xr.Dataset) -> pd.DataFrame:
+    """One row per site, receptor, period and component, then the sums.
+
+    Columns start with :data:`BUDGET_COLUMNS`; ``species`` is ``all`` on the rows that
+    sum a pathway (``wet``, ``dry``) or the ``total``.
+    """
+    comps = _rows(ds, "deposition", "status", "completeness", "component",
+                  ds["element"].values, ds["pathway"].values, ds["species"].values)
+    tot_names = ds["total"].values
+    totals = _rows(ds, "total_deposition", "total_status", "total_completeness", "total",
+                   [t.split("_")[0] for t in tot_names], [t.split("_")[1] for t in tot_names],
+                   ["all"] * len(tot_names))
+    frame = pd.concat([comps, totals], ignore_index=True)
+    order = {"wet": 0, "dry": 1, "total": 2}
+    frame["_o"] = frame["pathway"].map(order) + (frame["species"] == "all") * 0.5
+    frame = frame.sort_values(["site", "receptor", "period_start", "element", "_o"],
+                              kind="stable").drop(columns="_o").reset_index(drop=True)
+    return frame
+
+
+def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
+    """The whole span: the mean of the years that pass completeness.
+
+    A year passes for an element when the element's total is neither ``flagged`` nor
+    ``missing`` (``partial`` passes: it says which components are absent, not that the
+    present ones are incomplete).  The rows list the years used and excluded.
+    """
+    t = year_table.copy()
+    t["year"] = t["period_start"].dt.year
+    tot = t[(t["pathway"] == "total") & (t["species"] == "all")]
+    ok = tot.assign(passes=~tot["status"].isin(["flagged", "missing"]))[
+        ["site", "receptor", "element", "year", "passes"]]
+    t = t.merge(ok, on=["site", "receptor", "element", "year"], how="left")
+    keys = ["site", "receptor", "element", "pathway", "species"]
+    used = t[t["passes"]]
+    if used.empty:
+        cols = list(BUDGET_COLUMNS) + ["years_used", "years_excluded"]
+        return pd.DataFrame(columns=cols)
+    agg = used.groupby(keys, sort=False).agg(
+        period_start=("period_start", "min"), period_end=("period_end", "max"),
+        flux_kg_ha_yr=("flux_kg_ha_yr", "mean"), flux_eq_ha_yr=("flux_eq_ha_yr", "mean"),
+        completeness=("completeness", "min"),
+        status=("status", lambda s: "partial" if (s == "partial").any() else
+                ("missing" if (s == "missing").all() else
+                 ("filled" if (s == "filled").any() else "complete"))),
+        years_used=("year", lambda y: " ".join(str(v) for v in sorted(set(y))))).reset_index()
+    excl = (t[~t["passes"]].groupby(["site", "receptor", "element"])["year"]
+            .apply(lambda y: " ".join(str(v) for v in sorted(set(y)))).rename("years_excluded"))
+    agg = agg.merge(excl.reset_index(), on=["site", "receptor", "element"], how="left")
+    agg["years_excluded"] = agg["years_excluded"].fillna("")
+    agg["flux_kg_ha"] = agg["flux_kg_ha_yr"]
+    agg["flux_eq_ha"] = agg["flux_eq_ha_yr"]
+    agg["period"] = "span"
+    cols = list(BUDGET_COLUMNS) + ["period", "years_used", "years_excluded"]
+    return agg[cols]
