@@ -1,0 +1,162 @@
+"""Gas dry deposition: quasi-laminar resistance Rb, Vd, and the scheme interface.
+
+Vd = 1 / (Ra + Rb + Rc).  Ra comes from :mod:`workbench.surface.aerodynamic`; Rb
+from the Schmidt number (below); Rc from a surface-resistance scheme.
+
+The scheme interface
+--------------------
+A scheme is a module with
+
+* ``NAME`` (str), ``REFERENCE`` (str);
+* ``PATHS``: tuple of the component names it returns besides ``"rc"``;
+* ``surface_resistance(gas, state) -> dict`` of arrays: ``"rc"`` [s m-1] and each
+  name of ``PATHS``, where ``state`` is a :class:`CanopyState`.
+
+Schemes are registered in :data:`SCHEMES`; a second one (for example Zhang et al.
+2003) is a new module plus one line here.  NH3 is deposition only: no scheme
+returns a compensation point yet, and :func:`deposition_velocity` has room for one
+(``compensation`` below) without changing its callers.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+import importlib
+
+from ..constants import PRANDTL_AIR, VON_KARMAN
+from ..species import diffusivity
+from ..surface.air import kinematic_viscosity
+
+#: Scheme name -> module path (imported on first use).
+SCHEMES = {"wesely1989": "workbench.drydep.wesely1989"}
+#: The Rb prefactor 2 of Wesely and Hicks (1977) / Hicks et al. (1987) [-].
+RB_PREFACTOR = 2.0
+#: Exponent of (Sc/Pr) in Rb [-] (Hicks et al. 1987).
+RB_EXPONENT = 2.0 / 3.0
+
+
+@dataclass(frozen=True)
+class CanopyState:
+    """What a surface-resistance scheme needs to know about the surface and the hour.
+
+    All arrays broadcast against each other (e.g. site x receptor x time).
+
+    Attributes
+    ----------
+    land_use : sequence of str
+        Our class of each receptor (along ``receptor_dim`` when arrays are DataArrays).
+    seasonal_category : array_like
+        Wesely's seasonal category 1-5 (NaN unknown). [-]
+    solar_radiation : array_like
+        Global radiation. [W m-2]
+    temperature : array_like
+        Air (taken as surface) temperature. [K]
+    wet_kind : array_like
+        0 dry, 1 dew, 2 rain (NaN unknown). [-]
+    terrain_slope : array_like
+        [degree]
+    ustar : array_like
+        Friction velocity over the receptor (for schemes that need it). [m s-1]
+    lai : array_like or None
+        Leaf-area index (for schemes that need it). [m2 m-2]
+    receptor_dim : str
+        Name of the receptor dimension when the arrays are DataArrays.
+    """
+
+    land_use: tuple
+    seasonal_category: object
+    solar_radiation: object
+    temperature: object
+    wet_kind: object
+    terrain_slope: object = 0.0
+    ustar: object = None
+    lai: object = None
+    receptor_dim: str = "receptor"
+
+
+def get_scheme(name: str):
+    """The surface-resistance scheme module called `name`."""
+    try:
+        return importlib.import_module(SCHEMES[name])
+    except KeyError:
+        raise ValueError(f"unknown gas scheme {name!r}; known: {', '.join(SCHEMES)}") from None
+
+
+def schmidt_number(gas: str, temperature, pressure):
+    """Schmidt number Sc = nu / D of a gas in air [-].
+
+    Parameters
+    ----------
+    gas : str
+        Species name.
+    temperature : array_like
+        [K]
+    pressure : array_like
+        [Pa]
+
+    Returns
+    -------
+    sc : array_like
+        [-]
+    """
+    return kinematic_viscosity(temperature, pressure) / diffusivity(gas, temperature, pressure)
+
+
+def quasi_laminar_resistance(gas: str, ustar, temperature, pressure):
+    """Quasi-laminar (sublayer) resistance Rb of a gas [s m-1].
+
+    Parameters
+    ----------
+    gas : str
+        Species name (its molecular diffusivity comes from :mod:`workbench.species`).
+    ustar : array_like
+        [m s-1]
+    temperature : array_like
+        [K]
+    pressure : array_like
+        [Pa]
+
+    Returns
+    -------
+    rb : array_like
+        [s m-1]
+
+    Notes
+    -----
+    .. math:: R_b = \\frac{2}{\\kappa u_*}\\left(\\frac{Sc}{Pr}\\right)^{2/3}
+
+    References
+    ----------
+    Hicks, B. B., Baldocchi, D. D., Meyers, T. P., Hosker, R. P. and Matt, D. R. (1987),
+    Water Air Soil Pollut. 36, 311-330; Wesely (1989), Atmos. Environ. 23, 1293,
+    Eq. (1) and text.
+    """
+    sc = schmidt_number(gas, temperature, pressure)
+    return RB_PREFACTOR / (VON_KARMAN * ustar) * (sc / PRANDTL_AIR) ** RB_EXPONENT
+
+
+def deposition_velocity(ra, rb, rc, compensation=None):
+    """Dry deposition velocity of a gas Vd = 1 / (Ra + Rb + Rc) [m s-1].
+
+    Parameters
+    ----------
+    ra, rb, rc : array_like
+        Resistances. [s m-1]
+    compensation : None
+        Reserved for a bidirectional (compensation-point) treatment of NH3; only
+        None (deposition only) is implemented.
+
+    Returns
+    -------
+    vd : array_like
+        [m s-1]
+
+    References
+    ----------
+    Wesely, M. L. and Hicks, B. B. (1977), J. Air Pollut. Control Assoc. 27, 1110.
+
+    >>> deposition_velocity(50.0, 20.0, 30.0)
+    0.01
+    """
+    if compensation is not None:
+        raise NotImplementedError("a compensation-point treatment is not implemented")
+    return 1.0 / (ra + rb + rc)

@@ -1,0 +1,176 @@
+"""Options of the dry-deposition calculation and the particle size defaults."""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+#: Growth laws known to :func:`workbench.drydep.particles.wet_diameter`.
+GROWTH_LAWS = ("ammonium_sulfate", "sea_salt", "urban", "rural", "none")
+
+
+@dataclass(frozen=True)
+class LogNormalMode:
+    """One log-normal mode of a particle mass distribution (by dry diameter).
+
+    Attributes
+    ----------
+    mmd : float
+        Mass median dry diameter. [m]
+    gsd : float
+        Geometric standard deviation (>= 1). [-]
+    density : float
+        Dry particle density. [kg m-3]
+    growth : str
+        Hygroscopic growth law (one of :data:`GROWTH_LAWS`).
+    """
+
+    mmd: float
+    gsd: float
+    density: float
+    growth: str = "ammonium_sulfate"
+
+    def __post_init__(self):
+        if not self.mmd > 0 or not self.gsd >= 1.0 or not self.density > 0:
+            raise ValueError(f"invalid particle mode {self}: need mmd > 0 m, gsd >= 1, "
+                             "density > 0 kg m-3")
+        if self.growth not in GROWTH_LAWS:
+            raise ValueError(f"unknown growth law {self.growth!r}; use one of {GROWTH_LAWS}")
+
+
+@dataclass(frozen=True)
+class ParticleSpec:
+    """Mass distribution of one particulate species: fine and coarse modes.
+
+    Attributes
+    ----------
+    fine : LogNormalMode
+    coarse : LogNormalMode
+    fine_fraction : float
+        Mass fraction in the fine mode, 0-1. [1]
+    """
+
+    fine: LogNormalMode
+    coarse: LogNormalMode
+    fine_fraction: float
+
+    def __post_init__(self):
+        if not 0.0 <= self.fine_fraction <= 1.0:
+            raise ValueError(f"fine_fraction must lie in 0-1, got {self.fine_fraction}")
+
+
+#: Accumulation mode of secondary inorganic aerosol: MMD 0.4 um, sigma_g 2.0 (common
+#: practice; cf. the accumulation mode of Whitby 1978, Atmos. Environ. 12, 135, from
+#: memory), dry density of ammonium sulfate 1770 kg m-3 (CRC Handbook, from memory).
+FINE_MODE = LogNormalMode(0.4e-6, 2.0, 1770.0, "ammonium_sulfate")
+#: Coarse sea-salt mode: MMD 5 um, sigma_g 2.0 (common practice, from memory),
+#: density of NaCl 2165 kg m-3 (CRC Handbook, from memory).
+COARSE_SEA_SALT = LogNormalMode(5.0e-6, 2.0, 2165.0, "sea_salt")
+#: Coarse mineral-dust mode: MMD 5 um, sigma_g 2.0, density 2600 kg m-3, no growth
+#: (common practice, from memory).
+COARSE_DUST = LogNormalMode(5.0e-6, 2.0, 2600.0, "none")
+
+
+def default_particle_modes() -> dict:
+    """Default size distributions of the particulate species (common practice).
+
+    Sulfate and ammonium are mostly fine; nitrate is split half and half, since it
+    is often largely coarse (on sea salt or dust) at coastal and farm sites; sodium
+    and chloride are coarse sea salt and calcium coarse dust.
+    """
+    return {
+        "pSO4": ParticleSpec(FINE_MODE, COARSE_SEA_SALT, 0.9),
+        "pNO3": ParticleSpec(FINE_MODE, COARSE_SEA_SALT, 0.5),
+        "pNH4": ParticleSpec(FINE_MODE, COARSE_SEA_SALT, 1.0),
+        "pNa": ParticleSpec(FINE_MODE, COARSE_SEA_SALT, 0.0),
+        "pCl": ParticleSpec(FINE_MODE, COARSE_SEA_SALT, 0.0),
+        "pCa": ParticleSpec(FINE_MODE, COARSE_DUST, 0.0),
+    }
+
+
+WETNESS_RULES = ("met", "inferred", "always_dry", "always_wet")
+
+
+@dataclass(frozen=True)
+class DryOptions:
+    """Choices of the dry-deposition velocity calculation, with documented defaults.
+
+    Attributes
+    ----------
+    gas_scheme : str
+        Surface-resistance scheme for gases; ``"wesely1989"`` (Wesely 1989 with the
+        corrections of Walmsley and Wesely 1996).
+    gases : tuple of str
+        Gases to compute.
+    particles : tuple of str
+        Particulate species to compute.
+    wetness_rule : str
+        ``"met"``: the met file's ``surface_wet`` where given, else the inferred rule
+        (rain in this or the previous hour, or dew); ``"inferred"``: always the rule;
+        ``"always_dry"`` / ``"always_wet"``: every hour dry / wet.
+    seasonal_category : None, int or 12-tuple of int
+        None: automatic (surface state, then month and latitude); an int 1-5 for
+        every hour; or one category per calendar month.
+    ustar_floor : float
+        Least friction velocity over a receptor (common practice). [m s-1]
+    ra_cap : float
+        Largest aerodynamic resistance (common practice). [s m-1]
+    ra_min_height_z0 : float
+        Ra is evaluated at least d + this many z0 above ground. [-]
+    blending_height : float
+        Height where the wind no longer feels the local surface (Wieringa 1986). [m]
+    night_cloud_cover : float
+        Cloud cover used at night when the met file has none and it cannot be
+        inferred from radiation (every such hour is flagged). [1]
+    roughness : dict
+        ``{land_use: (z0, d)}`` replacing the roughness rule for a whole class
+        (either entry may be None). [m]
+    particle_modes : dict
+        ``{species: ParticleSpec}``; missing species take the defaults.
+    size_nodes : int
+        Gauss-Hermite nodes per log-normal mode for the mass-weighted particle Vd.
+    unstable_iterations : int
+        Bisection steps of the unstable u* solve.
+    charnock_iterations : int
+        Fixed-point steps of the Charnock z0 over water.
+    nh3_treatment : str
+        ``"deposition_only"`` (the only one so far; a compensation point comes later).
+    components : bool
+        Return every path of Rc per gas (memory: about seven arrays per gas).
+    """
+
+    gas_scheme: str = "wesely1989"
+    gases: tuple = ("SO2", "HNO3", "NH3", "NO2", "O3")
+    particles: tuple = ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa")
+    wetness_rule: str = "met"
+    seasonal_category: object = None
+    ustar_floor: float = 0.05
+    ra_cap: float = 1000.0
+    ra_min_height_z0: float = 5.0
+    blending_height: float = 60.0
+    night_cloud_cover: float = 0.5
+    roughness: dict = field(default_factory=dict)
+    particle_modes: dict = field(default_factory=default_particle_modes)
+    size_nodes: int = 12
+    unstable_iterations: int = 30
+    charnock_iterations: int = 8
+    nh3_treatment: str = "deposition_only"
+    components: bool = True
+
+    def __post_init__(self):
+        if self.wetness_rule not in WETNESS_RULES:
+            raise ValueError(f"unknown wetness_rule {self.wetness_rule!r}; use one of "
+                             f"{WETNESS_RULES}")
+        if self.nh3_treatment != "deposition_only":
+            raise NotImplementedError("only nh3_treatment='deposition_only' exists so far")
+        sc = self.seasonal_category
+        if sc is not None:
+            cats = [sc] if isinstance(sc, int) else list(sc)
+            if (not isinstance(sc, int) and len(cats) != 12) or any(
+                    int(c) != c or not 1 <= c <= 5 for c in cats):
+                raise ValueError("seasonal_category must be None, an int 1-5 or 12 ints 1-5")
+        for name in ("ustar_floor", "ra_cap", "blending_height"):
+            if not getattr(self, name) > 0:
+                raise ValueError(f"{name} must be > 0")
+
+    def mode_of(self, species: str) -> ParticleSpec:
+        """The particle size distribution of `species` (the default when not set)."""
+        return self.particle_modes.get(species) or default_particle_modes()[species]
