@@ -103,10 +103,10 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
         gcount = frame.assign(v=rh).groupby(["site", "month"])["v"].transform("count").to_numpy()
         if unit in ("%", "percent"):
             mask("relative_humidity", (gmax <= 0.015) & (gcount >= 24),
-                 "relative humidity looks like a fraction (0-1) although the header says %; masked")
+                 "relative humidity looks like a fraction (0-1) although the header says % (masked)")
         else:
             mask("relative_humidity", (gmax > 1.5) & (gcount >= 24),
-                 "relative humidity looks like % although the header says a fraction; masked")
+                 "relative humidity looks like % although the header says a fraction (masked)")
     # pressure: unit slips and reduction to sea level
     if "pressure" in values:
         p = values["pressure"]
@@ -117,10 +117,10 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
         unit_slip = (ratio < 0.5) | (ratio > 2.0)
         mask("pressure", unit_slip,
              "pressure far from the station pressure expected at the site's elevation "
-             "(a unit slip such as kPa for hPa?); masked")
+             "(a unit slip such as kPa for hPa?) (masked)")
         sea = (~unit_slip & (elev > 200) & (np.abs(med - STANDARD_PRESSURE) < np.abs(med - p_exp))
                & (np.abs(ratio - 1) > 0.015))
-        flag(sea, "pressure looks reduced to sea level, not station pressure; kept")
+        flag(sea, "pressure looks reduced to sea level, not station pressure (kept)")
     # solar radiation units
     if "solar_radiation" in values:
         sr = values["solar_radiation"]
@@ -128,9 +128,9 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
         smax, scount = g.transform("max").to_numpy(), g.transform("count").to_numpy()
         lat = np.array([catalogue[s].latitude for s in sites], float)
         mask("solar_radiation", smax > RANGES["solar_radiation"][1],
-             "solar radiation above 1500 W/m2 at this site: unit likely not W/m2; masked")
+             "solar radiation above 1500 W/m2 at this site: unit likely not W/m2 (masked)")
         mask("solar_radiation", (smax < 50) & (scount >= 24 * 60) & (np.abs(lat) < 60),
-             "solar radiation never above 50 W/m2 at this site: unit likely not W/m2; masked")
+             "solar radiation never above 50 W/m2 at this site: unit likely not W/m2 (masked)")
     # cumulative precipitation
     if "precipitation" in values:
         pr = values["precipitation"]
@@ -144,12 +144,12 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
         cum_sites = [s for s in stats.index
                      if stats.loc[s, "nz"] > 0.5 and stats.loc[s, "neg"] < 0.1 and pmax[s] > 10]
         mask("precipitation", np.isin(sites, cum_sites),
-             "precipitation looks cumulative, not hourly; masked")
+             "precipitation looks cumulative, not hourly (masked)")
     # hard ranges
     for name, (lo, hi) in RANGES.items():
         if name in values:
             v = values[name]
-            mask(name, (v < lo) | (v > hi), f"{name} outside {lo:g}..{hi:g}; masked")
+            mask(name, (v < lo) | (v > hi), f"{name} outside {lo:g}..{hi:g} (masked)")
     # radiation at night
     if "solar_radiation" in values:
         lat = np.array([catalogue[s].latitude for s in sites], float)
@@ -180,13 +180,13 @@ def describe_gaps(met) -> list[str]:
         inner = ~p[a:b + 1]
         n_miss = int(inner.sum())
         if n_miss == 0:
-            notes.append(f"met {site}: complete hourly record {times[a]} to {times[b]}")
+            notes.append(f"met {site}: complete hourly record {str(times[a])[:16]} to {str(times[b])[:16]} UTC")
             continue
         edges = np.diff(np.concatenate([[0], inner.astype(int), [0]]))
         starts, ends = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
         k = int(np.argmax(ends - starts))
         notes.append(f"met {site}: {n_miss} missing hours in {len(starts)} gaps; longest "
-                     f"{int(ends[k] - starts[k])} h from {times[a + starts[k]]}")
+                     f"{int(ends[k] - starts[k])} h from {str(times[a + starts[k]])[:16]} UTC")
     return notes
 
 

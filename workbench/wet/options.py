@@ -27,6 +27,7 @@ _CHOICES = {
     "on_ion_balance_fail": ("flag", "exclude"),
     "on_conductivity_fail": ("flag", "exclude"),
     "on_contamination": ("flag", "exclude"),
+    "on_dust": ("flag", "exclude"),
     "on_capture_fail": ("flag", "exclude"),
     "period_fill": ("none", "seasonal"),
     "seasalt_tracer": ("Na", "Mg", "Cl"),
@@ -53,8 +54,13 @@ class WetOptions:
     #: unmeasured organic anions fail honestly), "exclude" drops its chemistry.
     on_ion_balance_fail: str = "flag"
     on_conductivity_fail: str = "flag"
-    #: our contamination screens (biological, soil dust, field blank).
-    on_contamination: str = "flag"
+    #: our contamination screens for material that did not fall with the
+    #: precipitation (biological, field blank): excluded by default (common
+    #: practice: such samples are marked contaminated and kept out of the means).
+    on_contamination: str = "exclude"
+    #: soil-dust screen: flagged and kept by default (dust deposited with the
+    #: precipitation is part of the wet flux; funnel dirt would not be).
+    on_dust: str = "flag"
     #: capture ratio outside its range.
     on_capture_fail: str = "flag"
 

@@ -226,7 +226,7 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
     reasons.append(("bio", "contamination screen: biological (K, NH4, PO4 high)", bio,
                     cont_effect))
     reasons.append(("dust", "contamination screen: soil dust (high pH and Ca)", dust,
-                    cont_effect))
+                    "exclude" if opt.on_dust == "exclude" else "flag"))
     blank_hit = np.zeros(n, bool)
     if blanks is not None:
         for ion in BLANK_IONS:

@@ -1,0 +1,111 @@
+"""Wesely's seasonal category of the surface, hour by hour.
+
+Categories (Wesely 1989, Table 1): 1 midsummer with lush vegetation; 2 autumn
+with unharvested cropland; 3 late autumn after frost, no snow; 4 winter, snow on
+ground and subfreezing; 5 transitional spring with partially green short annuals.
+They are distinct from the calendar seasons of the wet-deposition chain.
+
+Rule, in order of precedence (ours, documented in docs/methods_dry.md):
+
+1. the user's category (one for all hours, or one per calendar month);
+2. snow on the ground (``snow_cover`` = 1) and air temperature below 0 degC -> 4;
+3. in the autumn months, every hour after the first frost of that autumn (air
+   temperature below 0 degC) -> 3;
+4. otherwise by month: Dec-Feb 3 (winter without snow), Mar-May 5, Jun-Aug 1,
+   Sep-Nov 2 in the northern hemisphere, shifted by six months in the southern;
+   within the tropics (|latitude| < 23.44 degrees) 1 all year.
+"""
+from __future__ import annotations
+
+import numpy as np
+import xarray as xr
+
+from ..constants import OBLIQUITY, ZERO_CELSIUS
+from ..surface._array import where
+
+#: Category by calendar month (index 0 = January), northern mid-latitudes (ours).
+MONTH_CATEGORY_NORTH = (3, 3, 5, 5, 5, 1, 1, 1, 2, 2, 2, 3)
+#: Months shift by this many in the southern hemisphere.
+HEMISPHERE_SHIFT = 6
+#: The autumn category, which turns into the late-autumn one after a frost.
+AUTUMN, LATE_AUTUMN, WINTER_SNOW, MIDSUMMER = 2, 3, 4, 1
+#: Codes of ``seasonal_source``.
+SOURCE = {0: "month and latitude", 1: "after first autumn frost", 2: "snow and frozen",
+          3: "set by the user"}
+MONTHS_PER_YEAR = 12
+
+
+def category_from_month(month, latitude):
+    """Seasonal category from the calendar month and latitude [-].
+
+    Parameters
+    ----------
+    month : array_like of int
+        1-12.
+    latitude : array_like
+        [degree north]
+
+    Returns
+    -------
+    category : array_like of float
+        1-5.
+
+    >>> int(category_from_month(7, 50.0)), int(category_from_month(7, -40.0)), int(category_from_month(1, 5.0))
+    (1, 3, 1)
+    """
+    table = np.array(MONTH_CATEGORY_NORTH, dtype=float)
+    south = latitude < 0
+    m_local = where(south, (month - 1 + HEMISPHERE_SHIFT) % MONTHS_PER_YEAR, month - 1)
+    if isinstance(m_local, xr.DataArray):
+        cat = xr.apply_ufunc(lambda i: table[i], m_local.astype(int), dask="parallelized",
+                             output_dtypes=[float])
+    else:
+        cat = table[np.asarray(m_local).astype(int)]
+    tropics = np.abs(latitude) < OBLIQUITY
+    return where(tropics, float(MIDSUMMER), cat)
+
+
+def seasonal_category(time, latitude, temperature, snow_cover=None, override=None):
+    """Seasonal category for each site and hour, and why [-].
+
+    Parameters
+    ----------
+    time : DataArray of datetime64
+        The hourly axis (dimension ``time``).
+    latitude : DataArray
+        Per site. [degree north]
+    temperature : DataArray
+        Air temperature (site, time). [K]
+    snow_cover : DataArray, optional
+        0/1 (site, time); NaN or absent: unknown (no snow rule).
+    override : None, int or sequence of 12 ints
+
+    Returns
+    -------
+    category : DataArray
+        (site, time), 1-5, float.
+    source : DataArray
+        (site, time) code, see :data:`SOURCE`.
+    """
+    month = time.dt.month
+    if override is not None:
+        if isinstance(override, (int, np.integer)):
+            cat = xr.full_like(temperature, float(override))
+        else:
+            tab = np.asarray(override, dtype=float)
+            cat = (xr.DataArray(tab, dims="m").isel(m=(month - 1)) + 0.0 * temperature)
+            cat = cat.drop_vars([c for c in cat.coords if c not in temperature.coords])
+        return cat, xr.full_like(temperature, 3.0)
+    base = category_from_month(month, latitude) + 0.0 * temperature
+    base = where(np.isnan(temperature), base, base)  # keep a category where T is missing
+    frost = temperature < ZERO_CELSIUS
+    autumn_frost = (frost & (base == AUTUMN)).astype(float)
+    seen = autumn_frost.groupby(time.dt.year).cumsum("time") > 0
+    after_frost = seen & (base == AUTUMN)
+    cat = where(after_frost, float(LATE_AUTUMN), base)
+    source = where(after_frost, 1.0, 0.0)
+    if snow_cover is not None:
+        snowy = (snow_cover > 0.5) & frost
+        cat = where(snowy, float(WINTER_SNOW), cat)
+        source = where(snowy, 2.0, source)
+    return cat, source

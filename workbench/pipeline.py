@@ -1,0 +1,223 @@
+"""A study: the inputs of a scenario and its computation stages, each cached.
+
+Stages and what invalidates them:
+
+======================  =====================================================
+stage                   recomputed when
+======================  =====================================================
+``screened``            wet options change
+``wet``                 wet options or the periods change
+``velocities``          dry options or the site overrides change (met-derived,
+                        the expensive stage)
+``dry``                 budget options, fixed velocities or periods change
+``budget``              anything above changes
+======================  =====================================================
+
+So a change of a wet option never recomputes Vd.
+"""
+from __future__ import annotations
+
+import dataclasses
+import json
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from . import periods as _periods
+from .budget import COMPONENTS, BudgetOptions, assemble, derived, dry_components, prepare_velocities
+from .io.inputs import Inputs
+from .io.sites import SiteCatalogue
+from .tables import budget_table, span_table
+
+
+def _key(obj) -> str:
+    if obj is None:
+        return "None"
+    if hasattr(obj, "to_json"):
+        return obj.to_json()
+    if dataclasses.is_dataclass(obj):
+        return repr(obj)
+    return json.dumps(obj, sort_keys=True, default=str)
+
+
+@dataclass
+class Result:
+    """Everything one run produces."""
+
+    budget: xr.Dataset            #: (site, receptor, period, component) at the resolution
+    years: xr.Dataset             #: the same for calendar years
+    table: pd.DataFrame           #: budget.csv rows (resolution periods, then the span)
+    derived: xr.Dataset           #: shares, oxidized / reduced N, potential acidity
+    screened: xr.Dataset | None   #: per-sample QA
+    wet: xr.Dataset | None        #: wet chain at the resolution
+    velocities: xr.Dataset | None  #: hourly Ra, Rb, Rc, Vd
+    periods: pd.DataFrame
+    options: dict = field(default_factory=dict)
+    notes: list = field(default_factory=list)
+
+
+class Study:
+    """The inputs of a study and the cached computation stages.
+
+    Parameters
+    ----------
+    inputs : Inputs
+        As read by :func:`workbench.io.load_inputs`.
+    site_overrides : dict, optional
+        site id -> {catalogue key: value} (the scenario's ``[sites.<id>]`` tables).
+    """
+
+    def __init__(self, inputs: Inputs, site_overrides=None):
+        self.inputs = inputs
+        self.site_overrides = dict(site_overrides or {})
+        self._cache = {}
+        self.counts = {"screened": 0, "wet": 0, "velocities": 0, "dry": 0, "budget": 0}
+
+    # ---------------------------------------------------------------- construction
+    @classmethod
+    def from_scenario(cls, scenario, progress=None) -> "Study":
+        from .scenario import load_scenario_inputs
+        return cls(load_scenario_inputs(scenario, progress=progress), scenario.data.get("sites", {}))
+
+    def catalogue(self, overrides=None) -> SiteCatalogue:
+        """The catalogue with the site overrides applied."""
+        over = {**self.site_overrides, **(overrides or {})}
+        sites = []
+        for s in self.inputs.catalogue:
+            o = dict(over.get(s.id, {}))
+            if "receptors" in o:
+                o["receptors"] = tuple(o["receptors"])
+            if "lai" in o:
+                o["lai"] = tuple(o["lai"])
+            o.pop("lai_min", None), o.pop("lai_max", None)
+            sites.append(dataclasses.replace(s, **o) if o else s)
+        return SiteCatalogue(sites, self.inputs.catalogue.path)
+
+    def span(self):
+        """(start, end) of the data: the earliest start and the latest end."""
+        starts, ends = [], []
+        for ds in (self.inputs.precipitation, self.inputs.air):
+            if ds is not None:
+                starts.append(ds["start"].values.min())
+                ends.append(ds["end"].values.max())
+        if self.inputs.met is not None:
+            t = self.inputs.met["time"].values
+            starts.append(t[0] - np.timedelta64(1, "h"))
+            ends.append(t[-1])
+        return min(starts), max(ends)
+
+    def periods(self, resolution="year", start=None, end=None, hydro_start_month=10):
+        s0, e0 = self.span()
+        start = np.datetime64(start) if start else s0
+        end = np.datetime64(end) if end else e0
+        return _periods.make_periods(start, end, resolution, hydro_start_month=hydro_start_month)
+
+    # ---------------------------------------------------------------- stages
+    def _cached(self, name, key, fn):
+        k = (name, key)
+        if k not in self._cache:
+            self._cache[k] = fn()
+            self.counts[name] += 1
+        return self._cache[k]
+
+    def screened(self, wet_options):
+        from .wet import screen
+        if self.inputs.precipitation is None:
+            return None
+        return self._cached("screened", _key(wet_options),
+                            lambda: screen(self.inputs.precipitation, wet_options, met=self.inputs.met))
+
+    def wet(self, wet_options, periods: pd.DataFrame):
+        from .wet import wet_deposition
+        scr = self.screened(wet_options)
+        if scr is None:
+            return None
+        key = _key(wet_options) + "|" + ",".join(periods["label"])
+        return self._cached("wet", key, lambda: wet_deposition(scr, periods, wet_options,
+                                                               met=self.inputs.met))
+
+    def velocities(self, dry_options, overrides=None):
+        from .drydep import velocities
+        if self.inputs.met is None:
+            return None
+        key = repr(dry_options) + "|" + _key({**self.site_overrides, **(overrides or {})})
+        return self._cached("velocities", key,
+                            lambda: velocities(self.inputs.met, self.catalogue(overrides).surfaces(),
+                                               dry_options))
+
+    def _velocity_sets(self, dry_options, budget_options, fixed_velocity, overrides):
+        vd = self.velocities(dry_options, overrides)
+        dry_species = [c[2] for c in COMPONENTS if c[1] == "dry"]
+        key = repr(dry_options) + _key(overrides) + _key(fixed_velocity) + str(budget_options.min_slot_hours)
+        return self._cached("dry", "vel|" + key, lambda: prepare_velocities(
+            vd, dry_species, fixed_velocity, budget_options.min_slot_hours))
+
+    def dry(self, dry_options, budget_options, periods, fixed_velocity=None, overrides=None):
+        if self.inputs.air is None or self.inputs.met is None:
+            return None, []
+        vel = self._velocity_sets(dry_options, budget_options, fixed_velocity, overrides)
+        if not vel:
+            return None, []
+        key = (repr(dry_options) + _key(overrides) + _key(fixed_velocity) + _key(budget_options)
+               + ",".join(periods["label"]))
+        cat = self.catalogue(overrides)
+        return self._cached("dry", key, lambda: dry_components(
+            self.inputs.air, vel, self.inputs.met, cat.ids, periods, budget_options))
+
+    def season_coverage(self, dry_options, budget_options, years, fixed_velocity=None, overrides=None):
+        """(site, year, species): every season has concentrations in that year."""
+        months = _periods.make_periods(years["start"].values[0], years["end"].values[-1], "month")
+        dry_m, _ = self.dry(dry_options, budget_options, months, fixed_velocity, overrides)
+        if dry_m is None:
+            return None
+        cov = dry_m["coverage"].values > 0                      # (site, month, species)
+        yr = months["year"].to_numpy()
+        season = months["season"].to_numpy()
+        out = np.ones((cov.shape[0], len(years), cov.shape[2]), bool)
+        for i, y in enumerate(years["year"].to_numpy()):
+            for s in _periods.SEASON_NAMES:
+                sel = (yr == y) & (season == s)
+                if sel.any():
+                    out[:, i, :] &= cov[:, sel, :].any(axis=1)
+        return out
+
+    # ---------------------------------------------------------------- the budget
+    def run(self, wet_options=None, dry_options=None, budget_options=None, fixed_velocity=None,
+            resolution="year", start=None, end=None, overrides=None) -> Result:
+        """Compute the budget at a resolution, the yearly budget and the span mean."""
+        from .drydep import DryOptions
+        from .wet import WetOptions
+        wet_options = wet_options or WetOptions()
+        dry_options = dry_options or DryOptions()
+        budget_options = budget_options or BudgetOptions()
+        fixed_velocity = dict(fixed_velocity or {})
+        cat = self.catalogue(overrides)
+        receptors = list(dict.fromkeys(r for s in cat for r in s.surfaces))
+        hy = wet_options.hydro_start_month
+        periods = self.periods(resolution, start, end, hy)
+        years = self.periods("year", start, end, hy)
+
+        def one(table, season_cov):
+            wet = self.wet(wet_options, table)
+            dry, notes = self.dry(dry_options, budget_options, table, fixed_velocity, overrides)
+            ds = assemble(wet, dry, cat, table, budget_options, receptors, season_cov)
+            return ds, wet, notes
+
+        season_cov = self.season_coverage(dry_options, budget_options, years, fixed_velocity, overrides)
+        year_ds, wet_y, notes = one(years, season_cov)
+        if resolution == "year":
+            res_ds, wet_r = year_ds, wet_y
+        else:
+            res_ds, wet_r, _ = one(periods, None)
+        self.counts["budget"] += 1
+        table = budget_table(res_ds)
+        span = span_table(budget_table(year_ds))
+        table = pd.concat([table, span], ignore_index=True)
+        return Result(budget=res_ds, years=year_ds, table=table, derived=derived(res_ds),
+                      screened=self.screened(wet_options), wet=wet_r,
+                      velocities=self.velocities(dry_options, overrides), periods=periods,
+                      options={"wet": wet_options, "dry": dry_options, "budget": budget_options,
+                               "fixed_velocity": fixed_velocity, "resolution": resolution},
+                      notes=notes)

@@ -1,0 +1,93 @@
+"""The self-contained HTML report of a run (viewable offline: plotly is inlined)."""
+from __future__ import annotations
+
+import html
+import json
+
+import numpy as np
+import pandas as pd
+
+from . import __version__
+from .budget import OMISSIONS
+
+CAUTION = (
+    "Deposition estimates are model-based and uncertain. Dry deposition is inferred from "
+    "concentrations and a resistance model whose parameters are uncertain by tens of "
+    "percent; wet deposition depends on sampling efficiency and on how gaps are filled. "
+    "Read the completeness and status of each number and the list of what is left out "
+    "before comparing sites or years. For regulatory or compliance work, follow the "
+    "methods your authority requires; this report does not replace local rules or "
+    "accredited laboratory and network practice.")
+
+
+def _table_html(frame: pd.DataFrame, float_format="{:.3g}") -> str:
+    return frame.to_html(index=False, border=0, classes="tab", na_rep="–",
+                         float_format=lambda v: float_format.format(v))
+
+
+def render_report(result, study, scenario=None) -> str:
+    """HTML text of the report: budget tables, figures, QA summary, omissions, cautions."""
+    import plotly.io as pio
+    from .ui.figures import budget_bars
+    parts = []
+    t = result.table
+    totals = t[(t["species"] == "all") & (t["pathway"] == "total")]
+    span = totals[totals["period"] == "span"]
+    parts.append("<h2>Whole span: mean of the years that pass completeness</h2>")
+    if len(span):
+        parts.append(_table_html(span[["site", "receptor", "element", "flux_kg_ha_yr",
+                                       "flux_eq_ha_yr", "status", "years_used", "years_excluded"]]))
+    else:
+        parts.append("<p>No year passes completeness.</p>")
+    parts.append("<h2>Totals per period</h2>")
+    per = totals[totals["period"] != "span"]
+    parts.append(_table_html(per[["site", "receptor", "period", "element", "flux_kg_ha",
+                                  "flux_eq_ha", "flux_kg_ha_yr", "completeness", "status"]]))
+    parts.append("<h2>Figures</h2>")
+    first = True
+    ds = result.years
+    last_year = str(ds["period"].values[-1])
+    for site in ds["site"].values:
+        rec = [r for r in ds["receptor"].values if bool(ds["active"].sel(site=site, receptor=r))]
+        for r in rec[:1]:
+            year = last_year
+            passes = ds["total_passes"].sel(site=site, receptor=r, total="S_total").values
+            if passes.any():
+                year = str(ds["period"].values[np.flatnonzero(passes)[-1]])
+            fig = budget_bars(ds, site, r, year)
+            parts.append(pio.to_html(fig, include_plotlyjs="inline" if first else False,
+                                     full_html=False))
+            first = False
+    parts.append("<h2>Precipitation-chemistry QA</h2>")
+    if result.screened is not None:
+        st = pd.Series(result.screened["status"].values).value_counts().rename_axis("status") \
+            .reset_index(name="samples")
+        parts.append(_table_html(st))
+        reasons = pd.Series(result.screened["reasons"].values.astype(str))
+        reasons = reasons[reasons != ""].str.split("; ").explode().value_counts() \
+            .rename_axis("reason").reset_index(name="samples")
+        parts.append(_table_html(reasons))
+    else:
+        parts.append("<p>No precipitation file.</p>")
+    parts.append("<h2>Input rows</h2>")
+    parts.append(_table_html(study.inputs.ledger.summary()))
+    if study.inputs.ledger.notes:
+        parts.append("<ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in study.inputs.ledger.notes) + "</ul>")
+    parts.append("<h2>What the budget leaves out</h2><ul>")
+    parts.extend(f"<li><b>{html.escape(a)}</b>: {html.escape(b)}</li>" for a, b in OMISSIONS)
+    parts.append("</ul>")
+    if result.notes:
+        parts.append("<h2>Notes</h2><ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in result.notes) + "</ul>")
+    opts = {k: (v.to_dict() if hasattr(v, "to_dict") else repr(v)) for k, v in result.options.items()}
+    parts.append("<h2>Options in force</h2><pre>" + html.escape(json.dumps(opts, indent=1, default=str)) + "</pre>")
+    body = "\n".join(parts)
+    title = "Deposition budget report"
+    style = ("body{font-family:sans-serif;max-width:1100px;margin:auto;padding:1em;color:#222}"
+             ".tab{border-collapse:collapse;font-size:85%}.tab td,.tab th{padding:2px 6px;"
+             "border-bottom:1px solid #ddd}.caution{background:#fff6e0;border-left:4px solid "
+             "#E69F00;padding:.6em 1em}")
+    return (f"<!DOCTYPE html><html><head><meta charset='utf-8'><title>{title}</title>"
+            f"<style>{style}</style></head><body><h1>{title}</h1>"
+            f"<p>deposition workbench {__version__}</p>"
+            f"<p class='caution'><b>Caution.</b> {html.escape(CAUTION)}</p>{body}"
+            f"<p class='caution'>{html.escape(CAUTION)}</p></body></html>")

@@ -1,0 +1,1 @@
+"""Figures (pure functions: Dataset in, plotly figure out) and ipywidgets apps."""
