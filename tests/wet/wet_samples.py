@@ -33,8 +33,8 @@ def make_samples(rows, ions=PRECIP_IONS) -> xr.Dataset:
     data["sample_depth"] = [r.get("sample_depth", r.get("gauge_depth", np.nan)) for r in rows]
     ds = xr.Dataset(coords={"sample": np.arange(n)})
     ds["site"] = ("sample", np.array(data["site"], dtype=object))
-    ds["start"] = ("sample", pd.to_datetime([r["start"] for r in rows]).values)
-    ds["end"] = ("sample", pd.to_datetime([r["end"] for r in rows]).values)
+    ds["start"] = ("sample", pd.to_datetime([str(r["start"]) for r in rows], format="ISO8601").values)
+    ds["end"] = ("sample", pd.to_datetime([str(r["end"]) for r in rows], format="ISO8601").values)
     ds["line"] = ("sample", np.arange(2, n + 2))
     ds["sampler_id"] = ("sample", np.array(data["sampler_id"], dtype=object))
     ds["flags"] = ("sample", np.array(data["flags"], dtype=object))
