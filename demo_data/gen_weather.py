@@ -203,7 +203,8 @@ def hourly_weather(rng, sites, times_local, force_dry=None):
     temperature = t_slow + diurnal_amp * np.cos(2 * np.pi * (hour_local - 14.5) / HOURS_PER_DAY)
 
     # --- humidity from a dew-point depression on the slow temperature ------------------
-    depression = np.exp(np.log(col("dew_depression")) + 0.35 * np.cos(2 * np.pi * (doy - 190.0) / DAYS_PER_YEAR)
+    depression = np.exp(np.log(col("dew_depression"))
+                        + 0.35 * np.cos(2 * np.pi * (doy - 190.0) / DAYS_PER_YEAR)
                         + 0.45 * ar1(rng, (ns, n), 24.0))
     depression *= 1.0 - 0.75 * smooth(wet_f, 3.0)
     dew = t_slow - depression
@@ -229,7 +230,8 @@ def hourly_weather(rng, sites, times_local, force_dry=None):
     z_w /= np.sqrt(0.75 ** 2 + 0.45 ** 2 + 0.45 ** 2)
     k = col("weibull_k")
     scale = col("wind_mean") / gamma_fn(1.0 + 1.0 / k)
-    factor = seasonal(doy, 15.0, 0.15) * (1.0 + col("wind_diurnal") * np.cos(2 * np.pi * (hour_local - 14.0) / HOURS_PER_DAY))
+    diurnal_w = np.cos(2 * np.pi * (hour_local - 14.0) / HOURS_PER_DAY)
+    factor = seasonal(doy, 15.0, 0.15) * (1.0 + col("wind_diurnal") * diurnal_w)
     wind = scale * factor * (-np.log1p(-np.clip(ndtr(z_w), 0.0, 1.0 - 1e-12))) ** (1.0 / k)
 
     # --- friction velocity where a sonic anemometer is invented -------------------------------

@@ -64,9 +64,15 @@ WEEK_H = 168
 PRECIP_CHANGE = np.timedelta64(9, "h")      # collector change, Tuesday 09:00 local
 AIR_CHANGE = np.timedelta64(10, "h")        # filter change, Tuesday 10:00 local
 RIDGE_NEW_COLLECTOR = np.datetime64("2020-01-01T00:00")
-PRECIP_COLUMNS = ["gauge_depth [mm]", "sample_volume [mL]", "collector_area [cm2]", "pH",
-                  "conductivity [uS/cm]", "SO4 [mg/L]", "NO3_as_N [mg/L]", "NH4_as_N [mg/L]",
-                  "Cl [mg/L]", "Na [mg/L]", "K [mg/L]", "Ca [mg/L]", "Mg [mg/L]", "PO4 [mg/L]"]
+#: Manual gauge over the sum of the hourly tipping bucket: bias and log sigma [-].
+GAUGE_BIAS, GAUGE_SIGMA = 1.02, 0.04
+#: Capture (sample depth / gauge depth) of rain: mean, sigma, bounds; of snow [-]
+#: (common practice: collectors catch 90-100 % of rain, much less of snow).
+RAIN_CAPTURE, RAIN_CAPTURE_SIGMA, RAIN_CAPTURE_RANGE, SNOW_CAPTURE = 0.955, 0.02, (0.88, 1.0), 0.6
+#: Analytical noise: log sigma of ions and conductivity, sigma of pH [-].
+ION_SIGMA, KAPPA_SIGMA, PH_SIGMA = 0.025, 0.03, 0.02
+#: Log sigma of a filter-pack and of a passive-sampler result about the true mean [-].
+FILTER_SIGMA, PASSIVE_SIGMA = 0.03, 0.08
 ION_COLUMN = {"SO4": "SO4 [mg/L]", "NO3": "NO3_as_N [mg/L]", "NH4": "NH4_as_N [mg/L]",
               "Cl": "Cl [mg/L]", "Na": "Na [mg/L]", "K": "K [mg/L]", "Ca": "Ca [mg/L]",
               "Mg": "Mg [mg/L]", "PO4": "PO4 [mg/L]"}
@@ -123,9 +129,9 @@ def precipitation_tables(rng, met, end, plan):
     frames = []
     for s, site in enumerate(SITES):
         m = starts.size
-        gauge = np.round(met_week[s] * 1.02 * np.exp(0.04 * rng.standard_normal(m)), 1)
-        capture = np.clip(0.955 + 0.02 * rng.standard_normal(m), 0.88, 1.0)
-        capture = (1 - snow_frac[s]) * capture + snow_frac[s] * 0.6
+        gauge = np.round(met_week[s] * GAUGE_BIAS * np.exp(GAUGE_SIGMA * rng.standard_normal(m)), 1)
+        capture = np.clip(RAIN_CAPTURE + RAIN_CAPTURE_SIGMA * rng.standard_normal(m), *RAIN_CAPTURE_RANGE)
+        capture = (1 - snow_frac[s]) * capture + snow_frac[s] * SNOW_CAPTURE
         ions = chem.base_ions(rng, site["chemistry"], day_of_year(mid), years_since_start(mid),
                               gauge, wind_week[s] / wind_week[s].mean())
         sampler = np.where(starts < RIDGE_NEW_COLLECTOR, site["precip_sampler"][0],
@@ -134,10 +140,10 @@ def precipitation_tables(rng, met, end, plan):
                                 capture=capture, snow=snow_frac[s], ions=ions,
                                 flags=np.full(m, "", dtype=object))
         plan.physical(ctx)                                   # changes before chemistry settles
-        h, hco3, ph, kappa = chem.acidity(ctx.ions)
-        noisy = {k: v * np.exp(0.025 * rng.standard_normal(m)) for k, v in ctx.ions.items()}
-        ph = ph + 0.02 * rng.standard_normal(m)
-        kappa = kappa * np.exp(0.03 * rng.standard_normal(m))
+        _, _, ph, kappa = chem.acidity(ctx.ions)
+        noisy = {k: v * np.exp(ION_SIGMA * rng.standard_normal(m)) for k, v in ctx.ions.items()}
+        ph = ph + PH_SIGMA * rng.standard_normal(m)
+        kappa = kappa * np.exp(KAPPA_SIGMA * rng.standard_normal(m))
         area = site["collector_area_cm2"]
         volume = np.round(ctx.gauge * ctx.capture * area / 10.0)   # mm * cm2 / 10 = mL
         trace = (ctx.gauge > 0) & (ctx.gauge < TRACE_MM)
@@ -201,7 +207,7 @@ def air_tables(rng, met, end):
             if sp not in daily or (sp == "NH3" and passive):
                 vals[sp] = np.full(m, np.nan)
             else:
-                vals[sp] = mean_over(fp_start, fp_end, sp) * np.exp(0.03 * rng.standard_normal(m))
+                vals[sp] = mean_over(fp_start, fp_end, sp) * np.exp(FILTER_SIGMA * rng.standard_normal(m))
         method = np.where(np.isfinite(vals["NH3"]), "filter_pack", "").astype(object)
         rows.append(dict(site=site["id"], start=fp_start, end=fp_end,
                          sampler=np.full(m, site["air_sampler"], dtype=object),
@@ -209,7 +215,7 @@ def air_tables(rng, met, end):
         if passive:
             k = pm_start.size
             v = {sp: np.full(k, np.nan) for sp in AIR_SPECIES + ["NO2"]}
-            v["NH3"] = mean_over(pm_start, pm_end, "NH3") * np.exp(0.08 * rng.standard_normal(k))
+            v["NH3"] = mean_over(pm_start, pm_end, "NH3") * np.exp(PASSIVE_SIGMA * rng.standard_normal(k))
             rows.append(dict(site=site["id"], start=pm_start, end=pm_end,
                              sampler=np.full(k, site["passive_sampler"], dtype=object),
                              vals=v, method=np.full(k, "passive", dtype=object)))
@@ -301,6 +307,9 @@ def main(argv=None):
     print(f"demo network written to {out} in {dt:.1f} s: "
           + ", ".join(f"{k} {v / 1024:.0f} KiB" for k, v in sizes.items())
           + f"; {len(problems)} planted problems")
+    if plan.skipped:
+        print("not planted (no suitable sample in the record): " + ", ".join(plan.skipped),
+              file=sys.stderr)
     return 0
 
 

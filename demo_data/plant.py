@@ -29,7 +29,7 @@ PICKS = {
     "ion_balance_poor": ("ridge", "2020-03-01", "2020-05-01", 8.0),
     "negative_after_blank": ("mere", "2022-10-01", "2022-11-01", 15.0),
     "gauge_failed": ("farm", "2019-11-01", "2019-12-01", 10.0),
-    "gauge_estimated": ("fell", "2022-01-01", "2022-02-01", 15.0),
+    "gauge_estimated": ("fell", "2022-10-01", "2022-12-01", 15.0),
     "sample_lost": ("ridge", "2017-10-01", "2017-11-01", 10.0),
     "not_analysed": ("mere", "2022-05-01", "2022-06-01", 8.0),
 }
@@ -102,6 +102,7 @@ class Plan:
         self.start, self.end, self.week_starts, self.site_ids = start, end, week_starts, site_ids
         self.picked = {}        # kind -> (site id, sample index)
         self.notes = {}         # kind -> extra numbers for the record
+        self.skipped = []       # kinds with no suitable sample (e.g. a short --years run)
 
     # ---------------------------------------------------------------- hourly masks
     def dry_hours(self, times):
@@ -141,6 +142,7 @@ class Plan:
         if kind == "soil_dust":          # dust on a sample that was acid before it
             ok &= chem.charge_deficit(ctx.ions) > DUST_ACID_BEFORE
         if not ok.any():
+            self.skipped.append(kind)
             return None
         cand = np.flatnonzero(ok)
         score = -ctx.gauge[cand] if np.isinf(target) else np.abs(ctx.gauge[cand] - target)

@@ -222,7 +222,9 @@ def _row(lines, header, line):
 def test_every_issue2_problem_is_planted(planted):
     kinds = [e["kind"] for e in planted]
     for k in ("contaminated_unflagged", "contaminated_flagged", "ion_balance_poor",
-              "missing_met", "low_capture", "rh_fraction", "soil_dust"):
+              "missing_met", "low_capture", "rh_fraction", "soil_dust", "lid_open",
+              "below_detection_clean", "negative_after_blank", "gauge_failed",
+              "gauge_estimated", "sample_lost", "not_analysed", "overflow", "trace_sample"):
         assert k in kinds, k
     assert sum(k.startswith("below_detection") for k in kinds) >= 3
     assert kinds.count("dry_week") >= 3
