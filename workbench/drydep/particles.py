@@ -44,6 +44,10 @@ GERBER = {
     "rural": (0.2789, 3.115, 5.415e-11, -0.9636),
     "ammonium_sulfate": (0.4809, 3.082, 3.110e-11, -1.428),
 }
+#: Highest relative humidity used in the growth law [1]: Gerber's fit grows large
+#: particles without bound as RH -> 1 (common practice; cf. the RH cap of 0.99 in
+#: many aerosol models, from memory).
+GROWTH_RH_MAX = 0.99
 #: Metres per centimetre (Gerber's radii are in cm) and metres per millimetre (A).
 M_PER_CM = 1e-2
 M_PER_MM = 1e-3
@@ -147,7 +151,7 @@ def wet_diameter(dry_diameter, relative_humidity, growth="ammonium_sulfate"):
     dry_diameter : array_like
         [m]
     relative_humidity : array_like
-        Fraction, clipped to 0-1. [1]
+        Fraction, clipped to 0-0.99 (:data:`GROWTH_RH_MAX`). [1]
     growth : str
         A key of :data:`GERBER`, or ``"none"``.
 
@@ -166,7 +170,7 @@ def wet_diameter(dry_diameter, relative_humidity, growth="ammonium_sulfate"):
         return dry_diameter + 0.0 * relative_humidity
     c1, c2, c3, c4 = GERBER[growth]
     rd = dry_diameter / 2.0 / M_PER_CM
-    rh = np.clip(relative_humidity, np.finfo(float).tiny, 1.0)
+    rh = np.clip(relative_humidity, np.finfo(float).tiny, GROWTH_RH_MAX)
     rw = (c1 * rd ** c2 / (c3 * rd ** c4 - np.log10(rh)) + rd ** 3) ** (1.0 / 3.0)
     return 2.0 * rw * M_PER_CM
 
