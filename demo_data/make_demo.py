@@ -45,6 +45,7 @@ import numpy as np
 import pandas as pd
 
 HERE = Path(__file__).resolve().parent
+sys.dont_write_bytecode = True                 # leave no __pycache__ beside the data
 for p in (str(HERE), str(HERE.parent)):        # our helpers and the workbench package
     if p not in sys.path:
         sys.path.insert(0, p)
