@@ -152,7 +152,8 @@ def annual_factor(periods: pd.DataFrame) -> np.ndarray:
 
 # ------------------------------------------------------------------------------ dry part
 
-def prepare_velocities(vd_ds: xr.Dataset, species_list, fixed_velocity=None, min_slot_hours=7):
+def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=7,
+                       template=None):
     """Gap-filled hourly Vd per species, with the fill mask and its source.
 
     Parameters
@@ -162,6 +163,10 @@ def prepare_velocities(vd_ds: xr.Dataset, species_list, fixed_velocity=None, min
     species_list : iterable of str
     fixed_velocity : dict, optional
         species -> Vd [cm s-1] replacing the model (what-if and arithmetic checks).
+    min_slot_hours : int
+    template : xarray.DataArray, optional
+        (site, receptor, time) array giving the axes for fixed velocities when the
+        model was not run.
 
     Returns
     -------
@@ -172,10 +177,11 @@ def prepare_velocities(vd_ds: xr.Dataset, species_list, fixed_velocity=None, min
     out = {}
     for sp in species_list:
         if sp in fixed_velocity:
-            base = vd_ds[f"vd_{sp}"] if vd_ds is not None and f"vd_{sp}" in vd_ds else None
+            base = vd_ds[f"vd_{sp}"] if vd_ds is not None and f"vd_{sp}" in vd_ds else template
             if base is None:
                 raise BudgetError(f"fixed velocity for {sp} needs the hourly time axis of the met file")
-            vd = xr.full_like(base, fixed_velocity[sp] / 100.0)
+            vd = xr.full_like(base, fixed_velocity[sp] / 100.0, dtype=float)
+            vd.attrs = {"units": "m s-1", "long_name": f"fixed deposition velocity of {sp}"}
             out[sp] = (vd, xr.zeros_like(vd, dtype=bool), f"fixed {fixed_velocity[sp]} cm/s")
             continue
         if vd_ds is None or f"vd_{sp}" not in vd_ds:
@@ -311,17 +317,26 @@ def _season_ok(dry: xr.Dataset, season_cov, periods, options):
     return ok
 
 
-def combine_status(statuses, present_axis=-1):
+def combine_status(statuses):
     """Status of a sum of components along the last axis.
 
-    ``missing`` components make the sum ``partial`` (``missing`` when all are);
-    otherwise the worst of flagged > filled > complete.
+    Precedence: ``missing`` (every component missing) > ``flagged`` (a present
+    component fails completeness) > ``partial`` (some component missing) > ``filled``
+    > ``complete``.
+
+    Returns
+    -------
+    status : ndarray of str
+    passes : ndarray of bool
+        The present components pass completeness (status not flagged or missing).
     """
     s = np.asarray(statuses, dtype=object)
     missing = s == "missing"
-    worst = np.where((s == "flagged").any(-1), "flagged",
-                     np.where((s == "filled").any(-1), "filled", "complete"))
-    return np.where(missing.all(-1), "missing", np.where(missing.any(-1), "partial", worst)).astype(object), worst
+    out = np.where((s == "filled").any(-1), "filled", "complete").astype(object)
+    out = np.where(missing.any(-1), "partial", out)
+    out = np.where((s == "flagged").any(-1), "flagged", out)
+    out = np.where(missing.all(-1), "missing", out)
+    return out, ~np.isin(out, ("flagged", "missing"))
 
 
 def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods: pd.DataFrame,
@@ -449,8 +464,12 @@ def add_totals(ds: xr.Dataset) -> xr.Dataset:
             d = ds["deposition"].values[..., sel]
             st = ds["status"].values[..., sel]
             total = np.where(np.isfinite(d).any(-1), np.nansum(d, -1), np.nan)
-            combined, worst = combine_status(st)
-            out[f"{e}_{p}"] = (total, combined, worst,
+            combined, passes = combine_status(st)
+            absent = np.full(total.shape, "", dtype=object)
+            for k, spn in enumerate(ds["species"].values[sel]):
+                absent = np.where(st[..., k] == "missing",
+                                  np.where(absent == "", spn, absent + " " + spn), absent)
+            out[f"{e}_{p}"] = (total, combined, passes, absent,
                                np.nanmin(np.where(st == "missing", np.nan, ds["completeness"].values[..., sel]), -1)
                                if (st != "missing").any() else np.full(total.shape, np.nan))
     names = list(out)
@@ -461,12 +480,14 @@ def add_totals(ds: xr.Dataset) -> xr.Dataset:
     ds["total_status"] = (("site", "receptor", "period", "total"),
                           np.stack([out[n][1] for n in names], -1))
     ds["total_passes"] = (("site", "receptor", "period", "total"),
-                          np.stack([np.isin(out[n][2], ("complete", "filled")) & (out[n][1] != "missing")
-                                    for n in names], -1),
+                          np.stack([out[n][2] for n in names], -1),
                           {"long_name": "present components pass completeness"})
+    ds["total_missing_components"] = (("site", "receptor", "period", "total"),
+                                      np.stack([out[n][3] for n in names], -1),
+                                      {"long_name": "components without data"})
     with np.errstate(all="ignore"):
         ds["total_completeness"] = (("site", "receptor", "period", "total"),
-                                    np.stack([out[n][3] for n in names], -1), {"units": "1"})
+                                    np.stack([out[n][4] for n in names], -1), {"units": "1"})
     return ds
 
 

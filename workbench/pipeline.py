@@ -148,11 +148,21 @@ class Study:
                                                dry_options))
 
     def _velocity_sets(self, dry_options, budget_options, fixed_velocity, overrides):
-        vd = self.velocities(dry_options, overrides)
         dry_species = [c[2] for c in COMPONENTS if c[1] == "dry"]
-        key = repr(dry_options) + _key(overrides) + _key(fixed_velocity) + str(budget_options.min_slot_hours)
+        measured = [sp for sp in dry_species if self.inputs.air is not None and sp in self.inputs.air]
+        need_model = any(sp not in fixed_velocity for sp in measured)
+        vd = self.velocities(dry_options, overrides) if need_model else None
+        cat = self.catalogue(overrides)
+        receptors = list(dict.fromkeys(r for s in cat for r in s.surfaces))
+        met = self.inputs.met
+        template = xr.DataArray(np.full((len(cat.ids), len(receptors), met.sizes["time"]), np.nan),
+                                dims=("site", "receptor", "time"),
+                                coords={"site": cat.ids, "receptor": receptors,
+                                        "time": met["time"].values})
+        key = (repr(dry_options) + _key(overrides) + _key(fixed_velocity)
+               + str(budget_options.min_slot_hours) + str(need_model))
         return self._cached("dry", "vel|" + key, lambda: prepare_velocities(
-            vd, dry_species, fixed_velocity, budget_options.min_slot_hours))
+            vd, dry_species, fixed_velocity, budget_options.min_slot_hours, template))
 
     def dry(self, dry_options, budget_options, periods, fixed_velocity=None, overrides=None):
         if self.inputs.air is None or self.inputs.met is None:

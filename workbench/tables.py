@@ -13,7 +13,8 @@ BUDGET_COLUMNS = ("site", "receptor", "period_start", "period_end", "element", "
                   "completeness", "status")
 
 
-def _rows(ds: xr.Dataset, dep_var, status_var, compl_var, comp_dim, element, pathway, species):
+def _rows(ds: xr.Dataset, dep_var, status_var, compl_var, comp_dim, element, pathway, species,
+          missing_var=None):
     d = ds[dep_var].transpose("site", "receptor", "period", comp_dim)
     n_s, n_r, n_p, n_c = d.shape
     idx = np.indices((n_s, n_r, n_p, n_c)).reshape(4, -1)
@@ -36,6 +37,9 @@ def _rows(ds: xr.Dataset, dep_var, status_var, compl_var, comp_dim, element, pat
         "status": ds[status_var].transpose("site", "receptor", "period", comp_dim).values.reshape(-1),
         "flux_mmol_m2": mmol, "period": ds["period"].values[idx[2]],
     })
+    frame["missing_components"] = (
+        ds[missing_var].transpose("site", "receptor", "period", comp_dim).values.reshape(-1)
+        if missing_var else "")
     active = ds["active"].values[idx[0], idx[1]]
     return frame[active]
 
@@ -51,7 +55,7 @@ def budget_table(ds: xr.Dataset) -> pd.DataFrame:
     tot_names = ds["total"].values
     totals = _rows(ds, "total_deposition", "total_status", "total_completeness", "total",
                    [t.split("_")[0] for t in tot_names], [t.split("_")[1] for t in tot_names],
-                   ["all"] * len(tot_names))
+                   ["all"] * len(tot_names), "total_missing_components")
     frame = pd.concat([comps, totals], ignore_index=True)
     order = {"wet": 0, "dry": 1, "total": 2}
     frame["_o"] = frame["pathway"].map(order) + (frame["species"] == "all") * 0.5
@@ -82,14 +86,14 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
         period_start=("period_start", "min"), period_end=("period_end", "max"),
         flux_kg_ha_yr=("flux_kg_ha_yr", "mean"), flux_eq_ha_yr=("flux_eq_ha_yr", "mean"),
         completeness=("completeness", "min"),
-        status=("status", lambda s: "partial" if (s == "partial").any() else
-                ("missing" if (s == "missing").all() else
+        status=("status", lambda s: "missing" if (s == "missing").all() else
+                ("partial" if (s == "partial").any() or (s == "missing").any() else
                  ("filled" if (s == "filled").any() else "complete"))),
         years_used=("year", lambda y: " ".join(str(v) for v in sorted(set(y))))).reset_index()
     excl = (t[~t["passes"]].groupby(["site", "receptor", "element"])["year"]
             .apply(lambda y: " ".join(str(v) for v in sorted(set(y)))).rename("years_excluded"))
     agg = agg.merge(excl.reset_index(), on=["site", "receptor", "element"], how="left")
-    agg["years_excluded"] = agg["years_excluded"].fillna("")
+    agg["years_excluded"] = agg["years_excluded"].astype(object).fillna("")
     agg["flux_kg_ha"] = agg["flux_kg_ha_yr"]
     agg["flux_eq_ha"] = agg["flux_eq_ha_yr"]
     agg["period"] = "span"

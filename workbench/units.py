@@ -22,6 +22,7 @@ such as ``NO3_as_N``.
 """
 from __future__ import annotations
 
+import logging
 import re
 from dataclasses import dataclass
 
@@ -32,10 +33,14 @@ from . import species as _species
 
 #: The package's one unit registry.
 ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
-ureg.define("ppm = 1e-6 = ppmv")
-ureg.define("ppb = 1e-9 = ppbv")
-ureg.define("ppt = 1e-12 = pptv")
-ureg.define("fraction = 1")
+# Mixing ratios by volume (pint reads "ppt" as a picopint otherwise).
+_pint_log = logging.getLogger("pint.util")
+_level = _pint_log.level
+_pint_log.setLevel(logging.ERROR)
+for _defn in ("ppm = 1e-6 = ppmv", "ppb = 1e-9 = ppbv", "ppt = 1e-12 = pptv",
+              "fraction = 1"):
+    ureg.define(_defn)
+_pint_log.setLevel(_level)
 Q_ = ureg.Quantity
 
 _HEADER = re.compile(r"^\s*(?P<name>[^\[\]]+?)\s*(?:\[(?P<unit>[^\[\]]*)\])?\s*$")

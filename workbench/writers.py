@@ -152,11 +152,11 @@ def write_run(result, study, scenario, out, overwrite=False, progress=None) -> d
     table = result.table
     cols = list(BUDGET_COLUMNS) + [c for c in table.columns if c not in BUDGET_COLUMNS]
     written["budget.csv"] = atomic_write(out / "budget.csv", lambda t: table[cols].to_csv(
-        t, index=False, float_format="%.6g", date_format="%Y-%m-%dT%H:%M"))
+        t, index=False, float_format="%.10g", date_format="%Y-%m-%dT%H:%M"))
     say("summary.csv")
     summ = result.derived.to_dataframe().reset_index()
     written["summary.csv"] = atomic_write(out / "summary.csv", lambda t: summ.to_csv(
-        t, index=False, float_format="%.6g"))
+        t, index=False, float_format="%.10g"))
     say("budget.nc")
     write_netcdf(budget_dataset(result), out / "budget.nc", "site budgets of S and N deposition")
     written["budget.nc"] = out / "budget.nc"
@@ -165,7 +165,7 @@ def write_run(result, study, scenario, out, overwrite=False, progress=None) -> d
         from .wet import samples_table
         st = samples_table(result.screened)
         written["samples.csv"] = atomic_write(out / "samples.csv", lambda t: st.to_csv(
-            t, index=False, float_format="%.6g", date_format="%Y-%m-%dT%H:%M"))
+            t, index=False, float_format="%.10g", date_format="%Y-%m-%dT%H:%M"))
     if result.velocities is not None:
         say("velocities.nc")
         write_netcdf(velocities_dataset(result.velocities), out / "velocities.nc",

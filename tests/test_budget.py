@@ -1,0 +1,159 @@
+"""Budgets computed by hand: a tiny scenario with fixed velocities and known rain.
+
+Everything expected here follows from arithmetic on the inputs (molar masses from the
+IUPAC atomic weights of the species table: S 32.06, N 14.007 g/mol).
+"""
+import json
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from workbench.cli import run_scenario
+
+SITES = """\
+[[site]]
+id = "alpha"
+name = "Alpha Test Meadow"
+latitude = 52.0
+longitude = 5.0
+elevation_m = 10.0
+land_use = "grass"
+canopy_height_m = 0.1
+wind_height_m = 10.0
+sampler_height_m = 3.0
+utc_offset_h = 0
+"""
+WEEKS = pd.date_range("2021-02-01", periods=5, freq="7D")
+GAUGE = [10.0, 0.0, 20.0, 5.0]           # mm per week; week 2 is dry
+SO4_UMOL = [20.0, np.nan, 10.0, 40.0]    # umol/L sulfate
+NO3_UMOL = [30.0, np.nan, 15.0, 60.0]
+NH4_UMOL = [25.0, np.nan, 20.0, 50.0]
+SO2_UG = [2.0, 4.0, 1.0, 3.0]            # ug/m3 weekly
+HNO3_UG = [0.5, 0.6, 0.4, 0.5]
+VD = {"SO2": 0.5, "HNO3": 2.0}           # cm/s, fixed
+
+
+def _write(tmp_path, drop_air_week=None, budget=""):
+    (tmp_path / "sites.toml").write_text(SITES)
+    rows = ["site,start,end,gauge_depth [mm],sample_depth [mm],pH,SO4 [umol/L],NO3 [umol/L],"
+            "NH4 [umol/L],Na [umol/L]"]
+    for i in range(4):
+        if GAUGE[i] == 0:
+            rows.append(f"alpha,{WEEKS[i]:%Y-%m-%dT%H:%M},{WEEKS[i + 1]:%Y-%m-%dT%H:%M},0,0,,,,,")
+        else:
+            # H+ closes the ion balance: 2 SO4 + NO3 - NH4 (ueq/L)
+            h = 2 * SO4_UMOL[i] + NO3_UMOL[i] - NH4_UMOL[i]
+            ph = -np.log10(h * 1e-6)
+            rows.append(f"alpha,{WEEKS[i]:%Y-%m-%dT%H:%M},{WEEKS[i + 1]:%Y-%m-%dT%H:%M},"
+                        f"{GAUGE[i]},{GAUGE[i] * 0.95},{ph:.4f},{SO4_UMOL[i]},{NO3_UMOL[i]},"
+                        f"{NH4_UMOL[i]},0.0")
+    (tmp_path / "precip.csv").write_text("\n".join(rows) + "\n")
+    air = ["# reference_state: ambient", "site,start,end,SO2 [ug/m3],HNO3 [ug/m3]"]
+    for i in range(4):
+        if i == drop_air_week:
+            continue
+        air.append(f"alpha,{WEEKS[i]:%Y-%m-%dT%H:%M},{WEEKS[i + 1]:%Y-%m-%dT%H:%M},"
+                   f"{SO2_UG[i]},{HNO3_UG[i]}")
+    (tmp_path / "air.csv").write_text("\n".join(air) + "\n")
+    t = pd.date_range("2021-02-01T01:00", "2021-03-01T00:00", freq="h")
+    week = np.minimum(((t - pd.Timedelta("1h")) - WEEKS[0]) // pd.Timedelta("7D"), 3)
+    rain = np.zeros(len(t))
+    for i in range(4):   # spread each week's rain over its first 10 hours
+        idx = np.flatnonzero(week == i)[:10]
+        rain[idx] = GAUGE[i] / 10
+    met = pd.DataFrame({"site": "alpha", "time": t.strftime("%Y-%m-%dT%H:%M"),
+                        "wind_speed [m/s]": 3.0, "temperature [degC]": 5.0,
+                        "relative_humidity [%]": 80.0, "solar_radiation [W/m2]": 0.0,
+                        "precipitation [mm]": rain, "pressure [hPa]": 1012.0})
+    met.to_csv(tmp_path / "met.csv", index=False)
+    fixed = "\n".join(f"{k} = {v}" for k, v in VD.items())
+    (tmp_path / "scenario.toml").write_text(f"""
+[inputs]
+sites = "sites.toml"
+precipitation = "precip.csv"
+air = "air.csv"
+met = "met.csv"
+
+[period]
+start = "2021-02-01"
+end = "2021-03-01"
+resolution = "month"
+
+[budget]
+sulfate_basis = "total"
+{budget}
+
+[dry.fixed_velocity]
+{fixed}
+""")
+    return tmp_path / "scenario.toml"
+
+
+def _get(table, element, pathway, species, period="2021-02"):
+    r = table[(table["element"] == element) & (table["pathway"] == pathway)
+              & (table["species"] == species) & (table["period"] == period)]
+    assert len(r) == 1, r
+    return r.iloc[0]
+
+
+def test_tiny_budget_by_hand(tmp_path):
+    sc = _write(tmp_path)
+    written, result, _ = run_scenario(sc, tmp_path / "out", quiet=True)
+    table = pd.read_csv(written["budget.csv"])
+    # wet S: PWM x total gauge depth = sum(C_i P_i); umol/L x mm = umol/m2 ... 1e-6 mol/m2
+    wet_s_mol = sum(c * p for c, p in zip(SO4_UMOL, GAUGE) if p > 0) * 1e-6
+    assert _get(table, "S", "wet", "SO4")["flux_kg_ha"] == pytest.approx(wet_s_mol * 32.06e-3 * 1e4, rel=1e-6)
+    wet_n = sum((a + b) * p for a, b, p in zip(NO3_UMOL, NH4_UMOL, GAUGE) if p > 0) * 1e-6
+    got_n = _get(table, "N", "wet", "NO3")["flux_kg_ha"] + _get(table, "N", "wet", "NH4")["flux_kg_ha"]
+    assert got_n == pytest.approx(wet_n * 14.007e-3 * 1e4, rel=1e-6)
+    # dry S: C [ug/m3] / M [g/mol] x Vd [m/s] x 7 days, per week
+    week_s = 7 * 86400
+    so2_mol = sum(c * 1e-6 / 64.058 * VD["SO2"] / 100 * week_s for c in SO2_UG)
+    dry_s = _get(table, "S", "dry", "SO2")
+    assert dry_s["flux_kg_ha"] == pytest.approx(so2_mol * 32.06e-3 * 1e4, rel=1e-6)
+    assert dry_s["status"] == "complete"
+    hno3_mol = sum(c * 1e-6 / 63.012 * VD["HNO3"] / 100 * week_s for c in HNO3_UG)
+    assert _get(table, "N", "dry", "HNO3")["flux_kg_ha"] == pytest.approx(hno3_mol * 14.007e-3 * 1e4, rel=1e-6)
+    # totals equal the sum of their pathways
+    tot = _get(table, "S", "total", "all")
+    assert tot["flux_kg_ha"] == pytest.approx(_get(table, "S", "wet", "all")["flux_kg_ha"]
+                                             + _get(table, "S", "dry", "all")["flux_kg_ha"])
+    # eq/ha from charge and molar mass: 2 eq per mol S, 1 per mol N
+    assert tot["flux_eq_ha"] == pytest.approx(tot["flux_kg_ha"] / 32.06e-3 * 2, rel=1e-9)
+    # a yearly rate of a 28-day month of a common year: x 365/28
+    assert tot["flux_kg_ha_yr"] == pytest.approx(tot["flux_kg_ha"] * 365 / 28)
+    # NH3 and particles were not measured: the N total is partial, and says so
+    assert _get(table, "N", "dry", "NH3")["status"] == "missing"
+    n_tot = _get(table, "N", "total", "all")
+    assert n_tot["status"] == "partial"
+    assert set(n_tot["missing_components"].split()) == {"pNO3", "pNH4", "NH3", "NO2"}
+
+
+def test_missing_week_scales_and_flags(tmp_path):
+    sc = _write(tmp_path, drop_air_week=1, budget="min_air_coverage = 0.8")
+    written, _, _ = run_scenario(sc, tmp_path / "out", quiet=True)
+    table = pd.read_csv(written["budget.csv"])
+    week_s = 7 * 86400
+    kept = [c for i, c in enumerate(SO2_UG) if i != 1]
+    so2_mol = sum(c * 1e-6 / 64.058 * VD["SO2"] / 100 * week_s for c in kept) * 4 / 3
+    row = _get(table, "S", "dry", "SO2")
+    assert row["flux_kg_ha"] == pytest.approx(so2_mol * 32.06e-3 * 1e4, rel=1e-6)
+    assert row["completeness"] == pytest.approx(0.75)
+    assert row["status"] == "flagged"
+    assert _get(table, "S", "total", "all")["status"] == "flagged"
+
+
+def test_provenance_hash_changes_with_one_byte(tmp_path):
+    sc = _write(tmp_path)
+    w1, _, _ = run_scenario(sc, tmp_path / "out1", quiet=True)
+    p1 = json.loads(w1["provenance.json"].read_text())
+    air = tmp_path / "air.csv"
+    text = air.read_text()
+    air.write_text(text.replace("2.0,0.5", "2.1,0.5", 1))
+    w2, _, _ = run_scenario(sc, tmp_path / "out2", quiet=True)
+    p2 = json.loads(w2["provenance.json"].read_text())
+    assert p1["inputs"]["air"]["sha256"] != p2["inputs"]["air"]["sha256"]
+    assert p1["inputs"]["met"]["sha256"] == p2["inputs"]["met"]["sha256"]
+    assert p2["scenario"]["budget"]["sulfate_basis"] == "total"
+    assert p2["scenario"]["dry"]["fixed_velocity"] == VD
