@@ -141,6 +141,6 @@ def time_parts(time):
         return doy, hour.astype(float)
     idx = pd.DatetimeIndex(np.ravel(np.asarray(time, dtype="datetime64[ns]")))
     shape = np.shape(time)
-    doy = np.asarray(idx.dayofyear, dtype=float).reshape(shape)
+    doy = np.asarray(idx.day_of_year, dtype=float).reshape(shape)
     hour = np.asarray((idx - idx.floor("D")) / pd.Timedelta(hours=1), dtype=float).reshape(shape)
     return doy, hour
