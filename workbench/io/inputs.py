@@ -39,6 +39,41 @@ class Inputs:
     gauge_check: pd.DataFrame | None = None
     paths: dict = field(default_factory=dict)
 
+    def subset(self, sites=None, start=None, end=None) -> "Inputs":
+        """The same inputs restricted to some sites and a time span [start, end).
+
+        Samples and air periods are kept when they overlap the span; the ledger is kept
+        whole (it describes the files).  Used by the apps to recompute one site-year fast.
+        """
+        import dataclasses as _dc
+        from .sites import SiteCatalogue
+        keep = list(sites) if sites is not None else self.catalogue.ids
+        cat = SiteCatalogue([self.catalogue[s] for s in keep], self.catalogue.path)
+        t0 = np.datetime64(start, "ns") if start is not None else None
+        t1 = np.datetime64(end, "ns") if end is not None else None
+
+        def cut(ds, dim):
+            if ds is None:
+                return None
+            m = np.isin(ds["site"].values.astype(str), keep)
+            if t0 is not None:
+                m &= ds["end"].values > t0
+            if t1 is not None:
+                m &= ds["start"].values < t1
+            return ds.isel({dim: np.flatnonzero(m)})
+
+        met = self.met
+        if met is not None:
+            met = met.sel(site=[s for s in keep if s in met["site"].values])
+            tsel = np.ones(met.sizes["time"], bool)
+            if t0 is not None:
+                tsel &= met["time"].values > t0
+            if t1 is not None:
+                tsel &= met["time"].values <= t1
+            met = met.isel(time=np.flatnonzero(tsel))
+        return _dc.replace(self, catalogue=cat, precipitation=cut(self.precipitation, "sample"),
+                           air=cut(self.air, "period"), met=met)
+
     def describe(self) -> str:
         """A plain-text account of what was loaded (sites, periods, rows)."""
         out = [f"sites ({len(self.catalogue)}):"]
