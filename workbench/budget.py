@@ -23,7 +23,7 @@ import pandas as pd
 import xarray as xr
 
 from . import species as _species
-from .dryflux import DryFluxOptions, fill_diurnal, period_deposition, to_periods
+from .dryflux import DryFluxOptions, fill_diurnal
 from .errors import WorkbenchError, suggest
 from .units import element_deposition_in
 
@@ -222,80 +222,128 @@ def _pair_air(air: xr.Dataset, pair: str, into: str) -> xr.Dataset:
     return air
 
 
-def dry_components(air, vel, met, sites, periods, options: BudgetOptions):
-    """Dry deposition of every measured species over the reporting periods.
+def dry_rows(air, vel, met, sites, options: BudgetOptions):
+    """Deposition over every air-sampling period of every species (period-independent).
+
+    Parameters
+    ----------
+    air : xarray.Dataset
+    vel : dict
+        Output of :func:`prepare_velocities`.
+    met : xarray.Dataset or None
+    sites : list of str
+    options : BudgetOptions
 
     Returns
     -------
-    xarray.Dataset
-        Dims (site, receptor, period, species): ``deposition`` [mol m-2],
-        ``coverage``, ``vd_coverage``, ``vd_filled_share`` [1], ``measured`` (bool).
-    notes : list of str
+    dict
+        ``"species"``: species -> numpy results of
+        :func:`workbench.dryflux.deposition_rows` plus ``site_index`` and the Vd fill
+        cumulative sums; ``"bracket"``: (pair, how) -> the same for the pair moved into
+        one member; ``"notes"``, ``"measured"`` (site x species bool), ``"receptors"``,
+        ``"times"``.
     """
+    from .dryflux import _inputs_for, deposition_rows
     fopt = options.flux_options()
     species_list = [c[2] for c in COMPONENTS if c[1] == "dry"]
     any_vd = next(iter(vel.values()))[0]
-    receptors = any_vd["receptor"].values
     times = any_vd["time"].values
-    n_s, n_r, n_p, n_k = len(sites), len(receptors), len(periods), len(species_list)
-    dep = np.full((n_s, n_r, n_p, n_k), np.nan)
-    cov = np.zeros((n_s, n_p, n_k))
-    vd_cov = np.full((n_s, n_r, n_p, n_k), np.nan)
-    filled_share = np.full((n_s, n_r, n_p, n_k), np.nan)
-    bracket = {}
-    notes = []
+    sites = list(sites)
     air = _nss_particles(air, options.sulfate_basis)
     if options.pair_split != "measured":
         for pair, (gas, part) in PAIRS.items():
             if gas in air and part in air:
                 air = _pair_air(air, pair, gas if options.pair_split == "all_gas" else part)
+    arrays = {}
+    for sp, (vd, was, _) in vel.items():
+        vd = vd.reindex(site=sites).transpose("site", "receptor", "time")
+        was_np = was.reindex(site=sites, fill_value=False).transpose("site", "receptor", "time").values
+        valid_raw = np.isfinite(vd.values) & ~was_np
+        arrays[sp] = (vd, vd.values, _cum(valid_raw), _cum(was_np))
 
     def one(air_in, sp, vd_sp):
-        vd, was, _ = vel[vd_sp]
-        vd = vd.reindex(site=list(sites))
-        rows, cs = period_deposition(air_in, sp, vd, met, fopt)
-        agg = to_periods(rows, cs, list(sites), periods, times)
-        return rows, agg, was.reindex(site=list(sites))
+        vd, v_np, _, _ = arrays[vd_sp]
+        rows, site_of, conc, _, quantity, weight, n_air, notes = _inputs_for(air_in, sp, vd, met, fopt)
+        si = pd.Index(sites).get_indexer(site_of)
+        r = deposition_rows(conc[rows], quantity, si, air_in["start"].values[rows],
+                            air_in["end"].values[rows], times, v_np, n_air, weight)
+        r["site_index"] = si
+        return r, notes
 
-    pa = np.searchsorted(times - np.timedelta64(30, "m"), periods["start"].values, "left")
-    pb = np.searchsorted(times - np.timedelta64(30, "m"), periods["end"].values, "left")
-    for k, sp in enumerate(species_list):
+    out = {"species": {}, "bracket": {}, "notes": [], "times": times,
+           "receptors": any_vd["receptor"].values, "sites": sites, "vd_cum": {}}
+    for sp in species_list:
         if sp not in air or sp not in vel:
             continue
-        rows, agg, was = one(air, sp, sp)
-        if rows.attrs.get("notes"):
-            notes.append(rows.attrs["notes"])
-        dep[:, :, :, k] = agg["deposition"].values
-        cov[:, :, k] = agg["coverage"].values
-        vd, _, _ = vel[sp]
-        vd = vd.reindex(site=list(sites)).transpose("site", "receptor", "time").values
-        valid_raw = np.isfinite(vd) & ~was.transpose("site", "receptor", "time").values
-        c_valid = np.concatenate([np.zeros(valid_raw.shape[:-1] + (1,)), np.cumsum(valid_raw, -1)], -1)
-        c_fill = np.concatenate([np.zeros(valid_raw.shape[:-1] + (1,)),
-                                 np.cumsum(was.transpose("site", "receptor", "time").values, -1)], -1)
-        hours = np.maximum(pb - pa, 1)
-        vd_cov[:, :, :, k] = (c_valid[:, :, pb] - c_valid[:, :, pa]) / periods["hours"].to_numpy()
-        filled_share[:, :, :, k] = (c_fill[:, :, pb] - c_fill[:, :, pa]) / hours
-    # the bracket of dry N: each pair all as gas and all as particle
+        r, notes = one(air, sp, sp)
+        out["species"][sp] = r
+        out["vd_cum"][sp] = arrays[sp][2:]
+        out["notes"].extend(notes)
     for pair, (gas, part) in PAIRS.items():
         if gas in air and part in air and gas in vel and part in vel:
             for how, into in (("all_gas", gas), ("all_particle", part)):
-                a2 = _pair_air(air, pair, into)
-                _, agg, _ = one(a2, into, into)
-                bracket[(pair, how)] = agg["deposition"].values
+                out["bracket"][(pair, how)] = one(_pair_air(air, pair, into), into, into)[0]
+    out["measured"] = np.stack(
+        [np.isin(sites, np.unique(air["site"].values[np.isfinite(air[sp].values)]))
+         if sp in air else np.zeros(len(sites), bool) for sp in species_list], -1)
+    return out
+
+
+def _cum(x):
+    z = np.zeros(x.shape[:-1] + (1,))
+    return np.concatenate([z, np.cumsum(x, axis=-1, dtype=float)], axis=-1)
+
+
+def dry_components(rows: dict, periods: pd.DataFrame):
+    """Dry deposition of every measured species over the reporting periods.
+
+    Parameters
+    ----------
+    rows : dict
+        Output of :func:`dry_rows`.
+    periods : pandas.DataFrame
+
+    Returns
+    -------
+    xarray.Dataset
+        Dims (site, receptor, period, species): ``deposition`` [mol m-2] scaled to the
+        whole period, ``coverage`` [1] (site, period, species), ``vd_coverage`` and
+        ``vd_filled_share`` [1], ``measured`` (site, species), and the pair brackets.
+    """
+    from .dryflux import _hour_bounds, share_to_periods
+    species_list = [c[2] for c in COMPONENTS if c[1] == "dry"]
+    sites, receptors, times = rows["sites"], rows["receptors"], rows["times"]
+    n_s, n_r, n_p, n_k = len(sites), len(receptors), len(periods), len(species_list)
+    dep = np.full((n_s, n_r, n_p, n_k), np.nan)
+    cov = np.zeros((n_s, n_p, n_k))
+    vd_cov = np.full((n_s, n_r, n_p, n_k), np.nan)
+    filled_share = np.full((n_s, n_r, n_p, n_k), np.nan)
+    pa, pb = _hour_bounds(times, periods["start"].values, periods["end"].values)
+    hours_p = periods["hours"].to_numpy(dtype=float)
+
+    def agg(r):
+        return share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"], r["cs"],
+                                n_s, periods, times)
+
+    for k, sp in enumerate(species_list):
+        if sp not in rows["species"]:
+            continue
+        d, c, _ = agg(rows["species"][sp])
+        dep[..., k], cov[..., k] = d, c
+        c_valid, c_fill = rows["vd_cum"][sp]
+        vd_cov[..., k] = (c_valid[:, :, pb] - c_valid[:, :, pa]) / hours_p
+        filled_share[..., k] = (c_fill[:, :, pb] - c_fill[:, :, pa]) / np.maximum(pb - pa, 1)
     ds = xr.Dataset(
         {"deposition": (("site", "receptor", "period", "species"), dep, {"units": "mol m-2"}),
          "coverage": (("site", "period", "species"), cov, {"units": "1"}),
          "vd_coverage": (("site", "receptor", "period", "species"), vd_cov, {"units": "1"}),
-         "vd_filled_share": (("site", "receptor", "period", "species"), filled_share, {"units": "1"})},
-        coords={"site": list(sites), "receptor": receptors, "period": periods["label"].values,
+         "vd_filled_share": (("site", "receptor", "period", "species"), filled_share, {"units": "1"}),
+         "measured": (("site", "species"), rows["measured"])},
+        coords={"site": sites, "receptor": receptors, "period": periods["label"].values,
                 "species": species_list})
-    ds["measured"] = (("site", "species"), np.stack(
-        [np.isin(list(sites), np.unique(air["site"].values[np.isfinite(air[sp].values)]))
-         if sp in air else np.zeros(n_s, bool) for sp in species_list], -1))
-    for (pair, how), values in bracket.items():
-        ds[f"bracket_{pair}_{how}"] = (("site", "receptor", "period"), values, {"units": "mol m-2"})
-    return ds, notes
+    for (pair, how), r in rows["bracket"].items():
+        ds[f"bracket_{pair}_{how}"] = (("site", "receptor", "period"), agg(r)[0], {"units": "mol m-2"})
+    return ds
 
 
 # ------------------------------------------------------------------------------ assembly
@@ -439,14 +487,11 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                 "period_end": ("period", periods["end"].values),
                 "period_hours": ("period", periods["hours"].to_numpy(dtype=float)),
                 "annual_factor": ("period", annual_factor(periods))})
-    ds["active"] = (("site", "receptor"), active)
-    ds = add_totals(ds)
+    ds = add_totals(ds.assign(active=(("site", "receptor"), active)))
     if dry is not None:
-        for pair in PAIRS:
-            for how in ("all_gas", "all_particle"):
-                v = f"bracket_{pair}_{how}"
-                if v in dry:
-                    ds[v] = dry[v].reindex(receptor=list(receptors))
+        brackets = {v: dry[v].reindex(receptor=list(receptors)) for v in dry.data_vars
+                    if v.startswith("bracket_")}
+        ds = ds.assign(brackets)
     ds.attrs.update({"options": json.dumps(options.to_dict(), sort_keys=True),
                      "notes": json.dumps(notes),
                      "omissions": json.dumps([list(o) for o in OMISSIONS])})
@@ -473,21 +518,19 @@ def add_totals(ds: xr.Dataset) -> xr.Dataset:
                                np.nanmin(np.where(st == "missing", np.nan, ds["completeness"].values[..., sel]), -1)
                                if (st != "missing").any() else np.full(total.shape, np.nan))
     names = list(out)
-    ds = ds.assign_coords(total=names)
-    ds["total_deposition"] = (("site", "receptor", "period", "total"),
-                              np.stack([out[n][0] for n in names], -1),
-                              {"units": "mol m-2", "long_name": "sum of components (element)"})
-    ds["total_status"] = (("site", "receptor", "period", "total"),
-                          np.stack([out[n][1] for n in names], -1))
-    ds["total_passes"] = (("site", "receptor", "period", "total"),
-                          np.stack([out[n][2] for n in names], -1),
-                          {"long_name": "present components pass completeness"})
-    ds["total_missing_components"] = (("site", "receptor", "period", "total"),
-                                      np.stack([out[n][3] for n in names], -1),
-                                      {"long_name": "components without data"})
+    dims = ("site", "receptor", "period", "total")
     with np.errstate(all="ignore"):
-        ds["total_completeness"] = (("site", "receptor", "period", "total"),
-                                    np.stack([out[n][4] for n in names], -1), {"units": "1"})
+        new = {
+            "total_deposition": (dims, np.stack([out[n][0] for n in names], -1),
+                                 {"units": "mol m-2", "long_name": "sum of components (element)"}),
+            "total_status": (dims, np.stack([out[n][1] for n in names], -1)),
+            "total_passes": (dims, np.stack([out[n][2] for n in names], -1),
+                             {"long_name": "present components pass completeness"}),
+            "total_missing_components": (dims, np.stack([out[n][3] for n in names], -1),
+                                         {"long_name": "components without data"}),
+            "total_completeness": (dims, np.stack([out[n][4] for n in names], -1), {"units": "1"}),
+        }
+    ds = ds.assign_coords(total=names).assign(new)
     return ds
 
 

@@ -141,14 +141,19 @@ def _censored_values(air, species, how):
 
 
 def select_samplers(air: xr.Dataset, species: str, preferred_method=None):
-    """Rows of `air` used for a species: one sampler per site.
+    """Rows of `air` used for a species where several samplers measure it at one site.
+
+    Samplers that follow each other (a replaced instrument) are all used.  Where
+    samplers overlap in time, the primary one (the preferred method, else the one
+    covering the most hours) is used and the others' rows that overlap it are left
+    out; their rows outside its periods fill its gaps.
 
     Returns
     -------
     used : ndarray of bool
         Per row of `air`.
     notes : list of str
-        Which duplicate samplers were left out.
+        Which rows were left out.
     """
     v = air[species].values
     has = np.isfinite(v) | (air[f"{species}_censored"].values if f"{species}_censored" in air
@@ -157,26 +162,102 @@ def select_samplers(air: xr.Dataset, species: str, preferred_method=None):
     samplers = air["sampler_id"].values.astype(str)
     method = air[f"{species}_method"].values.astype(str) if f"{species}_method" in air \
         else np.full(len(v), "", object)
-    hours = (air["end"].values - air["start"].values) / np.timedelta64(1, "h")
-    df = pd.DataFrame({"site": sites, "sampler": samplers, "method": method,
-                       "hours": np.where(has, hours, 0.0), "has": has})
-    df = df[df["has"]]
+    start, end = air["start"].values, air["end"].values
     used = has.copy()
     notes = []
-    for site, g in df.groupby("site"):
-        if g["sampler"].nunique() <= 1:
+    for site in np.unique(sites[has]):
+        here = has & (sites == site)
+        names = np.unique(samplers[here])
+        if len(names) <= 1:
             continue
-        cover = g.groupby("sampler")["hours"].sum()
-        choice = cover.idxmax()
+        hours = pd.Series((end - start)[here] / np.timedelta64(1, "h")).groupby(samplers[here]).sum()
+        choice = hours.idxmax()
         if preferred_method and preferred_method.get(species):
-            pref = g[g["method"] == preferred_method[species]]["sampler"].unique()
+            pref = np.unique(samplers[here & (method == preferred_method[species])])
             if len(pref):
                 choice = pref[0]
-        drop = (sites == site) & (samplers != choice)
-        used &= ~drop
-        notes.append(f"{species} at {site}: sampler {choice!r} used; "
-                     f"{', '.join(sorted(set(cover.index) - {choice}))} left out ({int(drop.sum())} rows)")
+        prim = np.flatnonzero(here & (samplers == choice))
+        order = prim[np.argsort(start[prim])]
+        ps, pe = start[order], end[order]
+        others = np.flatnonzero(here & (samplers != choice))
+        k = np.searchsorted(ps, end[others], side="left") - 1   # last primary starting before end
+        overlap = (k >= 0) & (pe[np.clip(k, 0, None)] > start[others])
+        dropped = others[overlap]
+        used[dropped] = False
+        if len(dropped):
+            notes.append(f"{species} at {site}: sampler {choice!r} is primary; {len(dropped)} "
+                         f"overlapping rows of {', '.join(n for n in names if n != choice)} left out")
     return used, notes
+
+
+def deposition_rows(conc, quantity, site_index, starts, ends, times, vd, n_air=None, weight=None):
+    """Deposition over each sampling period (numpy core of :func:`period_deposition`).
+
+    Parameters
+    ----------
+    conc : ndarray (n,)
+        Concentrations [mol m-3] or mixing ratios [mol mol-1].
+    quantity : {"amount_density", "mixing_ratio"}
+    site_index : ndarray of int (n,)
+        Row of each period in the site axis of `vd`.
+    starts, ends : ndarray of datetime64 (n,)
+    times : ndarray of datetime64 (T,)
+        End-of-hour labels of `vd`.
+    vd : ndarray (S, R, T)
+        Hourly deposition velocity [m s-1] (gap-filled).
+    n_air : ndarray (S, T), optional
+        Molar density of air [mol m-3]; needed for mixing ratios.
+    weight : ndarray (T,), optional
+        Relative concentration by hour (diurnal profile), mean 1.
+
+    Returns
+    -------
+    dict
+        ``deposition`` (n, R) [mol m-2], ``mean_eff`` (n, R) [m s-1 or mol m-2 s-1],
+        ``n_valid`` (n, R), ``hours`` (n,), ``a``, ``b`` (hour index bounds),
+        ``cs`` (S, R, T + 1) cumulative effective Vd.
+    """
+    eff = vd if weight is None else vd * weight
+    if quantity == "mixing_ratio":
+        if n_air is None:
+            raise ValueError("a mixing ratio needs the hourly molar density of air")
+        eff = eff * n_air[:, None, :]
+    cs = _cumulative(eff)
+    cn = _cumulative(np.isfinite(eff).astype(float))
+    a, b = _hour_bounds(times, starts, ends)
+    total = cs[site_index, :, b] - cs[site_index, :, a]
+    n_valid = cn[site_index, :, b] - cn[site_index, :, a]
+    hours = (ends - starts) / np.timedelta64(1, "h")
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mean_eff = np.where(n_valid > 0, total / n_valid, np.nan)
+    dep = conc[:, None] * mean_eff * hours[:, None] * HOUR_S
+    return {"deposition": dep, "mean_eff": mean_eff, "n_valid": n_valid, "hours": hours,
+            "a": a, "b": b, "cs": cs}
+
+
+def _inputs_for(air, species, vd: xr.DataArray, met, options):
+    """Rows used, their concentrations and the numpy arrays for one species."""
+    used, notes = select_samplers(air, species, options.preferred_method)
+    rows = np.flatnonzero(used)
+    conc, cens = _censored_values(air, species, options.censored)
+    sites_vd = [str(s) for s in vd["site"].values]
+    site_of = air["site"].values.astype(str)[rows]
+    known = np.isin(site_of, sites_vd)
+    rows, site_of = rows[known], site_of[known]
+    times = vd["time"].values
+    weight = None
+    if species in options.diurnal_profile:
+        prof = np.asarray(options.diurnal_profile[species], float)
+        prof = prof / prof.mean()
+        weight = prof[pd.DatetimeIndex(times - _HALF_HOUR).hour.to_numpy()]  # UTC hours
+    quantity = air[species].attrs.get("quantity", "amount_density")
+    n_air = None
+    if quantity == "mixing_ratio":
+        if met is None:
+            raise ValueError(f"{species} is a mixing ratio: hourly temperature and pressure are needed")
+        m = met[["temperature", "pressure"]].reindex(site=sites_vd, time=times)
+        n_air = molar_density_air(m["temperature"].values, m["pressure"].values)
+    return rows, site_of, conc, cens, quantity, weight, n_air, notes
 
 
 def period_deposition(air: xr.Dataset, species: str, vd: xr.DataArray, met: xr.Dataset | None,
@@ -197,68 +278,89 @@ def period_deposition(air: xr.Dataset, species: str, vd: xr.DataArray, met: xr.D
 
     Returns
     -------
-    xarray.Dataset
+    rows : xarray.Dataset
         Dims (``row``, ``receptor``) over the rows of `air` used for the species:
-        ``deposition`` [mol m-2], ``mean_vd`` [m s-1] (effective, concentration-
-        weighted when a profile is set), ``vd_hours`` (hours with a valid Vd),
-        ``hours`` (length), and the row's ``site``, ``start``, ``end``, ``line``,
-        ``censored``.
+        ``deposition`` [mol m-2], ``mean_vd`` [m s-1] (NaN for mixing ratios, whose
+        mean is of n_air Vd), ``vd_hours`` (hours with a valid Vd), ``hours``, and
+        the row's ``site``, ``start``, ``end``, ``line``, ``censored``.
+    cs : ndarray
+        Cumulative effective Vd (site, receptor, time + 1), for :func:`to_periods`.
     """
-    used, notes = select_samplers(air, species, options.preferred_method)
-    rows = np.flatnonzero(used)
-    conc, cens = _censored_values(air, species, options.censored)
-    quantity = air[species].attrs.get("quantity", "amount_density")
+    rows, site_of, conc, cens, quantity, weight, n_air, notes = _inputs_for(air, species, vd, met, options)
     sites_vd = [str(s) for s in vd["site"].values]
-    site_of = air["site"].values.astype(str)[rows]
-    known = np.isin(site_of, sites_vd)
-    rows, site_of = rows[known], site_of[known]
-    times = vd["time"].values
     v = vd.transpose("site", "receptor", "time").values
-    weight = np.ones(v.shape[-1])
-    if species in options.diurnal_profile:
-        prof = np.asarray(options.diurnal_profile[species], float)
-        prof = prof / prof.mean()
-        hour = pd.DatetimeIndex(times - _HALF_HOUR).hour.to_numpy()
-        weight = prof[hour]  # UTC hour; the caller passes a profile in UTC hours
-    eff = v * weight
-    if quantity == "mixing_ratio":
-        if met is None:
-            raise ValueError(f"{species} is a mixing ratio: hourly temperature and pressure are needed")
-        m = met[["temperature", "pressure"]].reindex(site=sites_vd, time=times)
-        n_air = molar_density_air(m["temperature"].values, m["pressure"].values)
-        eff = eff * n_air[:, None, :]
-    cs = _cumulative(eff)
-    cn = _cumulative(np.isfinite(eff).astype(float))
-    a, b = _hour_bounds(times, air["start"].values[rows], air["end"].values[rows])
-    si = pd.Index(sites_vd).get_indexer(site_of)
-    total = cs[si, :, b] - cs[si, :, a]        # (row, receptor)
-    n_valid = cn[si, :, b] - cn[si, :, a]
-    hours = (air["end"].values[rows] - air["start"].values[rows]) / np.timedelta64(1, "h")
-    with np.errstate(invalid="ignore", divide="ignore"):
-        mean_eff = np.where(n_valid > 0, total / n_valid, np.nan)
-    dep = conc[rows][:, None] * mean_eff * hours[:, None] * HOUR_S
+    r = deposition_rows(conc[rows], quantity, pd.Index(sites_vd).get_indexer(site_of),
+                        air["start"].values[rows], air["end"].values[rows], vd["time"].values,
+                        v, n_air, weight)
     ds = xr.Dataset(
         {
-            "deposition": (("row", "receptor"), dep, {"units": "mol m-2",
+            "deposition": (("row", "receptor"), r["deposition"], {"units": "mol m-2",
                            "long_name": f"dry deposition of {species} over the sampling period"}),
-            "mean_vd": (("row", "receptor"), mean_eff if quantity != "mixing_ratio" else np.nan * mean_eff,
+            "mean_vd": (("row", "receptor"), r["mean_eff"] if quantity != "mixing_ratio"
+                        else np.full_like(r["mean_eff"], np.nan),
                         {"units": "m s-1", "long_name": "mean deposition velocity over the period"}),
-            "vd_hours": (("row", "receptor"), n_valid),
-            "hours": ("row", hours, {"units": "h"}),
+            "vd_hours": (("row", "receptor"), r["n_valid"]),
+            "hours": ("row", r["hours"], {"units": "h"}),
             "site": ("row", site_of),
             "start": ("row", air["start"].values[rows]),
             "end": ("row", air["end"].values[rows]),
             "line": ("row", air["line"].values[rows]),
             "censored": ("row", cens[rows]),
-            "hour_start": ("row", a),
-            "hour_end": ("row", b),
+            "hour_start": ("row", r["a"]),
+            "hour_end": ("row", r["b"]),
         },
         coords={"receptor": vd["receptor"].values},
         attrs={"species": species, "quantity": quantity, "notes": "; ".join(notes)},
     )
-    # cumulative sums of the (unweighted) Vd for splitting across reporting periods
-    ds.attrs["_split_cs"] = None
-    return ds, cs
+    return ds, r["cs"]
+
+
+def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods: pd.DataFrame, times):
+    """Numpy core of :func:`to_periods`.
+
+    Parameters
+    ----------
+    site_index, a, b : ndarray of int (n,)
+        Site row and hour bounds of each sampling period.
+    deposition : ndarray (n, R)
+        Deposition over each sampling period [mol m-2].
+    cs : ndarray (S, R, T + 1)
+        Cumulative effective Vd.
+    n_sites : int
+    periods : pandas.DataFrame
+    times : ndarray of datetime64 (T,)
+
+    Returns
+    -------
+    deposition : ndarray (S, R, P) [mol m-2], scaled to the whole period
+    coverage : ndarray (S, P) [1]
+    covered_hours : ndarray (S, P) [h]
+    """
+    n_r, n_p = cs.shape[1], len(periods)
+    pa, pb = _hour_bounds(times, periods["start"].values, periods["end"].values)
+    dep_out = np.zeros((n_sites, n_r, n_p))
+    cov_hours = np.zeros((n_sites, n_p))
+    if len(a):
+        lo = np.maximum(a[:, None], pa[None, :])          # (row, period)
+        hi = np.minimum(b[:, None], pb[None, :])
+        ov = np.clip(hi - lo, 0, None)
+        lo_c = np.minimum(lo, hi)
+        part = cs[site_index[:, None], :, hi] - cs[site_index[:, None], :, lo_c]  # (row, period, R)
+        whole = (cs[site_index, :, b] - cs[site_index, :, a])[:, None, :]
+        with np.errstate(invalid="ignore", divide="ignore"):
+            share = np.where(whole > 0, part / whole,
+                             ov[:, :, None] / np.maximum(b - a, 1)[:, None, None])
+        dep = deposition[:, None, :] * share
+        dep = np.where(np.isfinite(dep), dep, 0.0)
+        acc = np.zeros((n_sites, n_p, n_r))
+        np.add.at(acc, site_index, dep)
+        dep_out = acc.transpose(0, 2, 1)
+        np.add.at(cov_hours, site_index, ov.astype(float))
+    period_hours = periods["hours"].to_numpy(dtype=float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        scale = np.where(cov_hours > 0, period_hours[None, :] / cov_hours, np.nan)
+    coverage = np.clip(cov_hours / np.maximum(period_hours[None, :], 1), 0, 1)
+    return dep_out * scale[:, None, :], coverage, cov_hours
 
 
 def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
@@ -289,41 +391,18 @@ def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
     xarray.Dataset
         Dims (site, receptor, period): ``deposition`` [mol m-2] scaled to the whole
         period, ``coverage`` [1] (share of the period's hours with a concentration),
-        ``vd_hours`` (hours with a valid Vd in the covered part), ``covered_hours``.
+        ``covered_hours`` [h].
     """
-    n_s, n_r, n_p = len(sites), rows.sizes["receptor"], len(periods)
-    dep_out = np.zeros((n_s, n_r, n_p))
-    cov_hours = np.zeros((n_s, n_p))
-    pa, pb = _hour_bounds(times, periods["start"].values, periods["end"].values)
-    if rows.sizes["row"]:
-        si = pd.Index(sites).get_indexer(rows["site"].values.astype(str))
-        a, b = rows["hour_start"].values, rows["hour_end"].values
-        lo = np.maximum(a[:, None], pa[None, :])          # (row, period)
-        hi = np.minimum(b[:, None], pb[None, :])
-        ov = np.clip(hi - lo, 0, None)
-        lo_c, hi_c = np.minimum(lo, hi), hi
-        part = cs[si[:, None], :, hi_c] - cs[si[:, None], :, lo_c]   # (row, period, receptor)
-        whole = (cs[si, :, b] - cs[si, :, a])[:, None, :]
-        with np.errstate(invalid="ignore", divide="ignore"):
-            share = np.where(whole > 0, part / whole, ov[:, :, None] / np.maximum(b - a, 1)[:, None, None])
-        dep = rows["deposition"].values[:, None, :] * share          # (row, period, receptor)
-        dep = np.where(np.isfinite(dep), dep, 0.0)
-        # sum rows into (site, receptor, period)
-        for_sites = np.zeros((n_s, n_p, n_r))
-        np.add.at(for_sites, si, dep)
-        dep_out = for_sites.transpose(0, 2, 1)
-        np.add.at(cov_hours, si, ov.astype(float))
-    period_hours = periods["hours"].to_numpy(dtype=float)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        scale = np.where(cov_hours > 0, period_hours[None, :] / cov_hours, np.nan)
-    deposition = dep_out * scale[:, None, :]
-    coverage = cov_hours / np.maximum(period_hours[None, :], 1)
+    si = pd.Index(list(sites)).get_indexer(rows["site"].values.astype(str))
+    dep, coverage, cov_hours = share_to_periods(
+        si, rows["hour_start"].values, rows["hour_end"].values, rows["deposition"].values,
+        cs, len(sites), periods, times)
     return xr.Dataset(
         {
-            "deposition": (("site", "receptor", "period"), deposition,
+            "deposition": (("site", "receptor", "period"), dep,
                            {"units": "mol m-2", "long_name": "dry deposition over the period, "
                             "scaled from the covered hours"}),
-            "coverage": (("site", "period"), np.clip(coverage, 0, 1),
+            "coverage": (("site", "period"), coverage,
                          {"units": "1", "long_name": "share of the period's hours with a concentration"}),
             "covered_hours": (("site", "period"), cov_hours, {"units": "h"}),
         },

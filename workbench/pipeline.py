@@ -26,7 +26,8 @@ import pandas as pd
 import xarray as xr
 
 from . import periods as _periods
-from .budget import COMPONENTS, BudgetOptions, assemble, derived, dry_components, prepare_velocities
+from .budget import (COMPONENTS, BudgetOptions, assemble, derived, dry_components, dry_rows,
+                     prepare_velocities)
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
 from .tables import budget_table, span_table
@@ -164,17 +165,24 @@ class Study:
         return self._cached("dry", "vel|" + key, lambda: prepare_velocities(
             vd, dry_species, fixed_velocity, budget_options.min_slot_hours, template))
 
-    def dry(self, dry_options, budget_options, periods, fixed_velocity=None, overrides=None):
+    def dry_rows(self, dry_options, budget_options, fixed_velocity=None, overrides=None):
+        """Deposition over each air-sampling period (independent of reporting periods)."""
         if self.inputs.air is None or self.inputs.met is None:
-            return None, []
+            return None
         vel = self._velocity_sets(dry_options, budget_options, fixed_velocity, overrides)
         if not vel:
+            return None
+        key = repr(dry_options) + _key(overrides) + _key(fixed_velocity) + _key(budget_options)
+        return self._cached("dry", "rows|" + key, lambda: dry_rows(
+            self.inputs.air, vel, self.inputs.met, self.catalogue(overrides).ids, budget_options))
+
+    def dry(self, dry_options, budget_options, periods, fixed_velocity=None, overrides=None):
+        rows = self.dry_rows(dry_options, budget_options, fixed_velocity, overrides)
+        if rows is None:
             return None, []
         key = (repr(dry_options) + _key(overrides) + _key(fixed_velocity) + _key(budget_options)
                + ",".join(periods["label"]))
-        cat = self.catalogue(overrides)
-        return self._cached("dry", key, lambda: dry_components(
-            self.inputs.air, vel, self.inputs.met, cat.ids, periods, budget_options))
+        return self._cached("dry", key, lambda: (dry_components(rows, periods), rows["notes"]))
 
     def season_coverage(self, dry_options, budget_options, years, fixed_velocity=None, overrides=None):
         """(site, year, species): every season has concentrations in that year."""

@@ -82,17 +82,24 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     if used.empty:
         cols = list(BUDGET_COLUMNS) + ["years_used", "years_excluded"]
         return pd.DataFrame(columns=cols)
-    agg = used.groupby(keys, sort=False).agg(
-        period_start=("period_start", "min"), period_end=("period_end", "max"),
-        flux_kg_ha_yr=("flux_kg_ha_yr", "mean"), flux_eq_ha_yr=("flux_eq_ha_yr", "mean"),
-        completeness=("completeness", "min"),
-        status=("status", lambda s: "missing" if (s == "missing").all() else
-                ("partial" if (s == "partial").any() or (s == "missing").any() else
-                 ("filled" if (s == "filled").any() else "complete"))),
-        years_used=("year", lambda y: " ".join(str(v) for v in sorted(set(y))))).reset_index()
-    excl = (t[~t["passes"]].groupby(["site", "receptor", "element"])["year"]
-            .apply(lambda y: " ".join(str(v) for v in sorted(set(y)))).rename("years_excluded"))
-    agg = agg.merge(excl.reset_index(), on=["site", "receptor", "element"], how="left")
+    rank = {"complete": 0, "filled": 1, "partial": 2, "flagged": 2, "missing": 3}
+    used = used.assign(_rank=used["status"].map(rank).fillna(2),
+                       _missing=(used["status"] == "missing").astype(int))
+    g = used.groupby(keys, sort=False)
+    agg = g.agg(period_start=("period_start", "min"), period_end=("period_end", "max"),
+                flux_kg_ha_yr=("flux_kg_ha_yr", "mean"), flux_eq_ha_yr=("flux_eq_ha_yr", "mean"),
+                completeness=("completeness", "min"), _rank=("_rank", "max"),
+                _missing=("_missing", "mean")).reset_index()
+    agg["status"] = np.select([agg["_missing"] == 1, agg["_missing"] > 0, agg["_rank"] >= 2,
+                               agg["_rank"] == 1], ["missing", "partial", "partial", "filled"],
+                              "complete")
+    agg = agg.drop(columns=["_rank", "_missing"])
+    by = ["site", "receptor", "element"]
+    years = ok.groupby(by + ["passes"])["year"].apply(
+        lambda y: " ".join(str(v) for v in sorted(set(y)))).unstack("passes")
+    years = years.reindex(columns=[True, False]).rename(columns={True: "years_used",
+                                                                 False: "years_excluded"})
+    agg = agg.merge(years.reset_index(), on=by, how="left")
     agg["years_excluded"] = agg["years_excluded"].astype(object).fillna("")
     agg["flux_kg_ha"] = agg["flux_kg_ha_yr"]
     agg["flux_eq_ha"] = agg["flux_eq_ha_yr"]
