@@ -54,7 +54,7 @@ class InputError(WorkbenchError, ValueError):
     def _message(self) -> str:
         where = []
         if self.file is not None:
-            where.append(Path(self.file).name if len(self.file) > 60 else self.file)
+            where.append(self.file)
         if self.line is not None:
             where.append(f"line {self.line}")
         if self.column is not None:

@@ -97,13 +97,14 @@ class Study:
         return SiteCatalogue(sites, self.inputs.catalogue.path)
 
     def span(self):
-        """(start, end) of the data: the earliest start and the latest end."""
+        """(start, end) of the chemistry: the earliest sample or air-period start and
+        the latest end (the met record when there is no chemistry)."""
         starts, ends = [], []
         for ds in (self.inputs.precipitation, self.inputs.air):
             if ds is not None:
                 starts.append(ds["start"].values.min())
                 ends.append(ds["end"].values.max())
-        if self.inputs.met is not None:
+        if not starts and self.inputs.met is not None:
             t = self.inputs.met["time"].values
             starts.append(t[0] - np.timedelta64(1, "h"))
             ends.append(t[-1])
@@ -148,10 +149,15 @@ class Study:
                             lambda: velocities(self.inputs.met, self.catalogue(overrides).surfaces(),
                                                dry_options))
 
-    def _velocity_sets(self, dry_options, budget_options, fixed_velocity, overrides):
+    def _needs_model(self, fixed_velocity) -> bool:
+        """True when a measured dry species has no fixed velocity."""
         dry_species = [c[2] for c in COMPONENTS if c[1] == "dry"]
         measured = [sp for sp in dry_species if self.inputs.air is not None and sp in self.inputs.air]
-        need_model = any(sp not in fixed_velocity for sp in measured)
+        return self.inputs.met is not None and any(sp not in (fixed_velocity or {}) for sp in measured)
+
+    def _velocity_sets(self, dry_options, budget_options, fixed_velocity, overrides):
+        dry_species = [c[2] for c in COMPONENTS if c[1] == "dry"]
+        need_model = self._needs_model(fixed_velocity)
         vd = self.velocities(dry_options, overrides) if need_model else None
         cat = self.catalogue(overrides)
         receptors = list(dict.fromkeys(r for s in cat for r in s.surfaces))
@@ -235,7 +241,8 @@ class Study:
         table = pd.concat([table, span], ignore_index=True)
         return Result(budget=res_ds, years=year_ds, table=table, derived=derived(res_ds),
                       screened=self.screened(wet_options), wet=wet_r,
-                      velocities=self.velocities(dry_options, overrides), periods=periods,
+                      velocities=self.velocities(dry_options, overrides)
+                      if self._needs_model(fixed_velocity) else None, periods=periods,
                       options={"wet": wet_options, "dry": dry_options, "budget": budget_options,
                                "fixed_velocity": fixed_velocity, "resolution": resolution},
                       notes=notes)

@@ -288,7 +288,7 @@ def load_scenario(path) -> Scenario:
     -------
     Scenario
     """
-    path = Path(path)
+    path = Path(path).resolve()
     try:
         text = path.read_text(encoding="utf-8")
     except FileNotFoundError:
