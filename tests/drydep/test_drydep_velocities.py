@@ -38,7 +38,10 @@ def test_structure_units_and_names(year):
     for v in ds.data_vars.values():
         assert "units" in v.attrs and "long_name" in v.attrs, v.name
     assert "deposition only" in ds["vd_NH3"].attrs["note"] and "deposition only" in ds.attrs["nh3"]
-    assert np.isfinite(ds["vd_SO2"]).all()
+    # every hour has a value except the first, whose previous hour's rain is unknown
+    # (the wetness rule then has no answer unless dew or rain is seen)
+    assert np.isfinite(ds["vd_SO2"].isel(time=slice(1, None))).all()
+    assert np.isfinite(ds["vd_pSO4"].isel(time=slice(1, None))).all()
 
 
 def test_counts_match_flags(year):
@@ -51,28 +54,21 @@ def test_gas_vd_below_aerodynamic_limit(year):
     _, ds = year
     for g in GASES:
         limit = 1.0 / (ds["ra"] + ds[f"rb_{g}"])
-        assert (ds[f"vd_{g}"] <= limit * (1 + 1e-12)).all()
+        vd = ds[f"vd_{g}"]
+        assert vd.notnull().mean() > 0.99
+        assert ((vd <= limit * (1 + 1e-12)) | vd.isnull()).all()
 
 
 def test_hno3_close_to_floor_limit(year):
-    _, ds = year
+    # Rc(HNO3) from Wesely's paths is tiny (H* = 1e14), so Vd = 1/(Ra + Rb + Rc_floor)
+    # with Rc_floor = max(10, -2 Ts) s/m (Erisman et al. 1994, from memory)
+    met, ds = year
     floor = ds["rc_floor_used_HNO3"]
-    assert floor.mean() > 0.5
+    assert float(floor.sel(receptor=list(FORESTS)).mean()) > 0.7  # frozen hours lie above it
+    warm = (met["temperature"] > 268.15) & floor
     expect = 1.0 / (ds["ra"] + ds["rb_HNO3"] + 10.0)
-    np.testing.assert_allclose(ds["vd_HNO3"].where(floor & (met_t(ds) > 268.15)).values,
-                               expect.where(floor & (met_t(ds) > 268.15)).values, rtol=1e-12)
-
-
-def met_t(ds):
-    return ds.attrs.get("_t", None) if False else _MET_T[0]
-
-
-_MET_T = [None]
-
-
-@pytest.fixture(autouse=True, scope="module")
-def _keep_temperature(year):
-    _MET_T[0] = year[0]["temperature"]
+    np.testing.assert_allclose(ds["vd_HNO3"].where(warm).values, expect.where(warm).values,
+                               rtol=1e-12)
 
 
 def test_gas_order_at_every_site(year):
@@ -117,16 +113,44 @@ def test_stomata_closed_at_night_and_frost(year):
     frost = met["temperature"] < 273.15
     rs = ds["rc_O3_stomatal"].sel(receptor="conifer_forest")
     assert float(rs.where(night).min()) > 1e6
-    assert np.isinf(rs.where(frost & ~night, drop=True)).all()
+    assert bool((np.isinf(rs) | ~(frost & ~night)).all()) and bool((frost & ~night).any())
 
 
-def test_vd_non_decreasing_with_wind(surfaces):
-    met = make_met(surfaces, hours=24 * 20, seed=5)
+def test_vd_non_decreasing_with_ustar_in_neutral_air(surfaces):
+    # measured u* scaled up with H = 0 (neutral): every Vd must not fall
+    met = make_met(surfaces, hours=24 * 20, seed=5, optional=("friction_velocity", "sensible_heat_flux"))
+    met["sensible_heat_flux"] = met["sensible_heat_flux"] * 0.0
     a = velocities(met, surfaces)
-    b = velocities(met.assign(wind_speed=met["wind_speed"] * 1.5), surfaces)
-    assert (b["friction_velocity"] >= a["friction_velocity"] * (1 - 1e-12)).all()
+    b = velocities(met.assign(friction_velocity=met["friction_velocity"] * 1.5), surfaces)
+    assert (b["friction_velocity"] >= a["friction_velocity"]).all()
     for sp in GASES + PARTICLES:
-        assert (b[f"vd_{sp}"] >= a[f"vd_{sp}"] * (1 - 1e-9)).all(), sp
+        va, vb = a[f"vd_{sp}"], b[f"vd_{sp}"]
+        if sp in PARTICLES:
+            # over dry smooth ground (barren, snow/ice) Zhang et al. (2001) let coarse
+            # particles bounce off, R1 = exp(-St^1/2) with St = vg u*^2/nu, so their
+            # Vd may fall as u* grows; that is the published scheme
+            va, vb = (x.drop_sel(receptor=["barren", "snow_ice"]) for x in (va, vb))
+        assert ((vb >= va * (1 - 1e-9)) | va.isnull()).all(), sp
+
+
+@pytest.mark.parametrize("inv_l", [-0.05, 0.0, 0.02])
+def test_vd_non_decreasing_with_ustar_at_fixed_stability(inv_l):
+    # the resistance chain at fixed 1/L: Ra and Rb fall as u* grows, Rc does not
+    # depend on u* in Wesely (1989), Rs of Zhang et al. (2001) falls
+    from workbench.drydep import gas, particles, wesely1989
+    from workbench.drydep.gas import CanopyState
+    from workbench.surface.aerodynamic import aerodynamic_resistance
+
+    ustar = np.linspace(0.05, 1.5, 60)
+    ra = aerodynamic_resistance(20.0, 10.0, 1.8, ustar, inv_l)
+    for g in GASES:
+        rc = wesely1989.surface_resistance(g, CanopyState(("conifer_forest",), 1.0, 500.0, 293.0, 0.0))["rc"]
+        vd = gas.deposition_velocity(ra, gas.quasi_laminar_resistance(g, ustar, 293.0, 1e5), rc)
+        assert np.all(np.diff(vd) >= 0), g
+    for d in (0.05e-6, 0.5e-6, 5e-6):
+        vd = particles.particle_deposition_velocity(d, 1700.0, 0.7, ustar, ra, 293.0, 1e5,
+                                                    "conifer_forest", 1.0)
+        assert np.all(np.diff(vd) >= 0), d
 
 
 def test_wet_and_water_above_dry_for_so2(surfaces):
@@ -136,10 +160,13 @@ def test_wet_and_water_above_dry_for_so2(surfaces):
     veg = ["conifer_forest", "grass", "crops", "deciduous_forest"]
     assert (wet["vd_SO2"].sel(receptor=veg) >= dry["vd_SO2"].sel(receptor=veg)).all()
     assert float(wet["vd_SO2"].sel(receptor=veg).mean()) > 1.5 * float(dry["vd_SO2"].sel(receptor=veg).mean())
-    # over water at the same site and hour: Rc ~ 0, Vd = 1/(Ra + Rb); compare the
-    # surface-limited conductance 1/Rc with a dry vegetated surface
-    assert float((1 / dry["rc_SO2"].sel(receptor="water")).min()) > 10 * float(
-        (1 / dry["rc_SO2"].sel(receptor="grass")).max())
+    # over unfrozen water Rc ~ 0, Vd = 1/(Ra + Rb): the surface conductance 1/Rc is
+    # far above that of a dry vegetated surface (above freezing: Wesely's cold
+    # increment also applies over water)
+    warm = met["temperature"] > 276.15
+    g_water = (1 / dry["rc_SO2"].sel(receptor="water")).where(warm)
+    g_grass = (1 / dry["rc_SO2"].sel(receptor="grass")).where(warm)
+    assert float(g_water.min()) > 10 * float(g_grass.max())
 
 
 def test_missing_inputs_give_nan_not_zero(surfaces):
@@ -152,8 +179,8 @@ def test_missing_inputs_give_nan_not_zero(surfaces):
     assert ds["vd_SO2"][0, :, 10].isnull().all() and ds["ra"][0, :, 10].isnull().all()
     assert ds["vd_SO2"][0, :, 11].notnull().all()
     assert ds["vd_pSO4"][1, :, 20].isnull().all()  # no humidity: no growth, no Vd
-    met2 = met.copy()
-    met2["pressure"] = met["pressure"] * np.nan
+    met2 = make_met(surfaces, hours=48, seed=7)
+    met2["pressure"] = met2["pressure"] * np.nan
     ds2 = velocities(met2, surfaces)
     assert ds2["pressure_estimated"].all() and ds2["vd_O3"][:, :, 1:].notnull().all()
 

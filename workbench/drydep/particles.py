@@ -183,27 +183,35 @@ def wet_density(dry_diameter, wet_diameter_, dry_density):
 
 def _luc_values(land_use, seasonal_category, receptor_dim):
     """A [m] (NaN: smooth surface), alpha and gamma for receptors and hours."""
-    names = [land_use] if isinstance(land_use, str) else list(land_use)
+    names = list(ZHANG_LUC)
     a_tab = np.array([ZHANG_LUC[n][1] for n in names]) * M_PER_MM
     alpha = np.array([ZHANG_LUC[n][2] for n in names])
     gamma = np.array([ZHANG_LUC[n][3] for n in names])
+    smooth = np.isnan(a_tab[:, 0])
     cat = seasonal_category
     col = where(np.isfinite(cat), cat, 1.0) - 1.0
     if is_xarray(cat):
         dims = (receptor_dim,)
-        rows = xr.DataArray(np.arange(len(names)), dims=dims)
+        rows = xr.DataArray(_rows(list(land_use)), dims=dims)
         flat = a_tab.ravel()
         idx = (rows * a_tab.shape[1] + col).astype(int)
         a = xr.apply_ufunc(lambda i: flat[i], idx, dask="parallelized", output_dtypes=[float])
         a = xr.where(np.isfinite(cat), a, np.nan)
-        # smooth surfaces have no A whatever the category: keep NaN, mark with flag
-        return a, xr.DataArray(alpha, dims=dims), xr.DataArray(gamma, dims=dims), \
-            xr.DataArray(np.isnan(a_tab[:, 0]), dims=dims)
+        r = rows.values
+        return (a, xr.DataArray(alpha[r], dims=dims), xr.DataArray(gamma[r], dims=dims),
+                xr.DataArray(smooth[r], dims=dims))
+    r = _rows(land_use)
     c = np.asarray(col).astype(int)
+    return where(np.isfinite(cat), a_tab[r, c], np.nan), alpha[r], gamma[r], smooth[r]
+
+
+def _rows(land_use):
+    """Row of :data:`ZHANG_LUC` for each of our class names (any array shape)."""
+    order = {n: i for i, n in enumerate(ZHANG_LUC)}
     if isinstance(land_use, str):
-        return (where(np.isfinite(cat), a_tab[0, c], np.nan), alpha[0], gamma[0],
-                bool(np.isnan(a_tab[0, 0])))
-    return (where(np.isfinite(cat), a_tab[:, c], np.nan), alpha, gamma, np.isnan(a_tab[:, 0]))
+        return order[land_use]
+    names = np.asarray(land_use, dtype=object)
+    return np.vectorize(lambda n: order[str(n)], otypes=[int])(names)
 
 
 def surface_resistance(diameter, density, ustar, temperature, pressure, land_use,
@@ -225,7 +233,7 @@ def surface_resistance(diameter, density, ustar, temperature, pressure, land_use
     seasonal_category : array_like
         1-5. [-]
     wet : array_like
-        1 where the surface is wet (no rebound), 0 dry. [-]
+        1 where the surface is wet (no rebound), 0 dry; open water is always wet. [-]
     receptor_dim : str
 
     Returns
@@ -248,7 +256,9 @@ def surface_resistance(diameter, density, ustar, temperature, pressure, land_use
     st = where(smooth, st_smooth, st_veg)
     e_im = (st / (alpha + st)) ** 2
     e_in = where(smooth, 0.0, 0.5 * (diameter / where(smooth, 1.0, a)) ** 2)
-    r1 = where(wet > 0, 1.0, np.exp(-np.sqrt(st)))
+    water = _rows(land_use) == _rows("water") if not is_xarray(seasonal_category) else \
+        xr.DataArray(np.array([n == "water" for n in land_use]), dims=(receptor_dim,))
+    r1 = where((wet > 0) | water, 1.0, np.exp(-np.sqrt(st)))
     r1 = r1 + where(np.isnan(wet), np.nan, 0.0)
     rs = 1.0 / (EPSILON_0 * ustar * (e_b + e_im + e_in) * r1)
     return rs + where(np.isnan(seasonal_category), np.nan, 0.0)

@@ -65,6 +65,71 @@ def category_from_month(month, latitude):
     return where(tropics, float(MIDSUMMER), cat)
 
 
+def autumn_frost_seen(time, latitude, temperature):
+    """True from the first autumn frost of each year on, within the autumn months.
+
+    Parameters
+    ----------
+    time : DataArray of datetime64
+        The hourly axis (dimension ``time``).
+    latitude : DataArray
+        Per site. [degree north]
+    temperature : DataArray
+        (site, time). [K]
+
+    Returns
+    -------
+    seen : DataArray of bool
+        (site, time); lazy when `temperature` is dask-backed. Autumn (Sep-Nov in the
+        north, Mar-May in the south) lies within one calendar year, so the count of
+        frost hours restarts each year.
+    """
+    base = category_from_month(time.dt.month, latitude)
+    autumn = base == AUTUMN
+    frost = (temperature < ZERO_CELSIUS) & autumn
+    seen = frost.astype(float).groupby(time.dt.year).cumsum("time") > 0
+    return (seen & autumn).drop_vars("year", errors="ignore")
+
+
+def category_from_state(base, frost_seen, temperature, snow_cover=None):
+    """Apply the surface-state rules to the month-and-latitude category [-].
+
+    Parameters
+    ----------
+    base : array_like
+        From :func:`category_from_month`.
+    frost_seen : array_like of bool
+        From :func:`autumn_frost_seen`.
+    temperature : array_like
+        [K]
+    snow_cover : array_like, optional
+        0/1; NaN: unknown.
+
+    Returns
+    -------
+    category, source : array_like
+        Category 1-5 and the codes of :data:`SOURCE`.
+    """
+    cat = where(frost_seen, float(LATE_AUTUMN), base)
+    source = where(frost_seen, 1.0, 0.0) + 0.0 * base
+    if snow_cover is not None:
+        snowy = (snow_cover > 0.5) & (temperature < ZERO_CELSIUS)
+        cat = where(snowy, float(WINTER_SNOW), cat)
+        source = where(snowy, 2.0, source)
+    return cat, source
+
+
+def category_override(month, override):
+    """The user's category for each hour (an int, or 12 values by month) [-]."""
+    if isinstance(override, (int, np.integer)):
+        return float(override) + 0.0 * month
+    tab = np.asarray(override, dtype=float)
+    if isinstance(month, xr.DataArray):
+        return xr.apply_ufunc(lambda m: tab[m - 1], month, dask="parallelized",
+                              output_dtypes=[float])
+    return tab[np.asarray(month).astype(int) - 1]
+
+
 def seasonal_category(time, latitude, temperature, snow_cover=None, override=None):
     """Seasonal category for each site and hour, and why [-].
 
@@ -87,25 +152,9 @@ def seasonal_category(time, latitude, temperature, snow_cover=None, override=Non
     source : DataArray
         (site, time) code, see :data:`SOURCE`.
     """
-    month = time.dt.month
     if override is not None:
-        if isinstance(override, (int, np.integer)):
-            cat = xr.full_like(temperature, float(override))
-        else:
-            tab = np.asarray(override, dtype=float)
-            cat = (xr.DataArray(tab, dims="m").isel(m=(month - 1)) + 0.0 * temperature)
-            cat = cat.drop_vars([c for c in cat.coords if c not in temperature.coords])
-        return cat, xr.full_like(temperature, 3.0)
-    base = category_from_month(month, latitude) + 0.0 * temperature
-    base = where(np.isnan(temperature), base, base)  # keep a category where T is missing
-    frost = temperature < ZERO_CELSIUS
-    autumn_frost = (frost & (base == AUTUMN)).astype(float)
-    seen = autumn_frost.groupby(time.dt.year).cumsum("time") > 0
-    after_frost = seen & (base == AUTUMN)
-    cat = where(after_frost, float(LATE_AUTUMN), base)
-    source = where(after_frost, 1.0, 0.0)
-    if snow_cover is not None:
-        snowy = (snow_cover > 0.5) & frost
-        cat = where(snowy, float(WINTER_SNOW), cat)
-        source = where(snowy, 2.0, source)
-    return cat, source
+        cat = category_override(time.dt.month, override) + 0.0 * temperature
+        return cat, 3.0 + 0.0 * cat
+    base = category_from_month(time.dt.month, latitude) + 0.0 * temperature
+    seen = autumn_frost_seen(time, latitude, temperature)
+    return category_from_state(base, seen, temperature, snow_cover)

@@ -166,8 +166,10 @@ def table_values(land_use, seasonal_category, receptor_dim="receptor"):
 
     Parameters
     ----------
-    land_use : str or sequence of str
-        Our classes (mapped through :data:`WESELY_CLASS`).
+    land_use : str, sequence of str or ndarray of str
+        Our classes (mapped through :data:`WESELY_CLASS`). With numpy input an
+        array of names broadcasts against `seasonal_category` (e.g. shape (1, R, 1)
+        against (S, 1, T)); a sequence is the ``receptor_dim`` of a DataArray.
     seasonal_category : array_like
         1-5, NaN unknown; a DataArray broadcasts against ``receptor_dim``.
     receptor_dim : str
@@ -179,14 +181,12 @@ def table_values(land_use, seasonal_category, receptor_dim="receptor"):
         Parameter name (:data:`PARAMETERS`) -> resistance array; NaN where the
         category is unknown.
     """
-    single = isinstance(land_use, str)
-    rows = np.array([WESELY_CLASS[n] - 1 for n in ([land_use] if single else land_use)])
     cat = seasonal_category
     valid = np.isfinite(cat)
     col = where(valid, cat, 1.0) - 1.0
     out = {}
     if is_xarray(cat):
-        rows_da = xr.DataArray(rows, dims=receptor_dim)
+        rows_da = xr.DataArray(_rows(list(land_use)), dims=receptor_dim)
         flat_idx = (rows_da * N_CATEGORIES + col).astype(int)
         for p in PARAMETERS:
             flat = TABLE[p].ravel()
@@ -194,11 +194,19 @@ def table_values(land_use, seasonal_category, receptor_dim="receptor"):
                                output_dtypes=[float])
             out[p] = xr.where(valid, v, np.nan)
         return out
-    r = rows[0] if single else rows
+    r = _rows(land_use)
     c = np.asarray(col).astype(int)
     for p in PARAMETERS:
         out[p] = where(valid, TABLE[p][r, c], np.nan)
     return out
+
+
+def _rows(land_use):
+    """Row index of Wesely's table for each of our class names (any array shape)."""
+    if isinstance(land_use, str):
+        return WESELY_CLASS[land_use] - 1
+    names = np.asarray(land_use, dtype=object)
+    return np.vectorize(lambda n: WESELY_CLASS[str(n)] - 1, otypes=[int])(names)
 
 
 def stomatal_resistance(ri, solar_radiation, temperature):
