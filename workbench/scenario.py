@@ -186,6 +186,10 @@ def _check_option_section(section, cls, given, path, lines):
         if hasattr(cls, "from_dict"):
             return cls.from_dict(dict(given))
         conv = {k: tuple(v) if isinstance(defaults[k], tuple) else v for k, v in given.items()}
+        if "particle_modes" in conv:
+            conv["particle_modes"] = _particle_modes(conv["particle_modes"], defaults["particle_modes"])
+        if isinstance(conv.get("seasonal_category"), list):
+            conv["seasonal_category"] = tuple(conv["seasonal_category"])
         return cls(**conv)
     except (ValueError, TypeError) as exc:
         key = next(iter(given), None)
@@ -196,6 +200,39 @@ def _check_option_section(section, cls, given, path, lines):
         raise ScenarioError(f"invalid value ({exc})", file=path,
                             line=_line_of(lines, section, key) if key else _line_of(lines, section),
                             column=f"{section}.{key}" if key else section) from None
+
+
+def _particle_modes(given: dict, defaults: dict) -> dict:
+    """Particle size distributions from a scenario table, over the defaults.
+
+    ``[dry.particle_modes.pNO3]`` may set ``fine_fraction`` and ``fine`` / ``coarse``
+    tables with ``mmd`` [m], ``gsd`` [-], ``density`` [kg m-3] and ``growth``.
+    """
+    import dataclasses
+    out = dict(defaults)
+    for sp, table in given.items():
+        if sp not in defaults:
+            raise ValueError(f"particle_modes: unknown species {sp!r}{suggest(sp, defaults)}")
+        if not isinstance(table, dict):
+            raise ValueError(f"particle_modes.{sp} must be a table")
+        spec = defaults[sp]
+        changes = {}
+        for key, value in table.items():
+            if key in ("fine", "coarse"):
+                if not isinstance(value, dict):
+                    raise ValueError(f"particle_modes.{sp}.{key} must be a table")
+                bad = [k for k in value if k not in ("mmd", "gsd", "density", "growth")]
+                if bad:
+                    raise ValueError(f"particle_modes.{sp}.{key}: unknown key {bad[0]!r}"
+                                     + suggest(bad[0], ("mmd", "gsd", "density", "growth")))
+                changes[key] = dataclasses.replace(getattr(spec, key), **value)
+            elif key == "fine_fraction":
+                changes[key] = float(value)
+            else:
+                raise ValueError(f"particle_modes.{sp}: unknown key {key!r}"
+                                 + suggest(key, ("fine", "coarse", "fine_fraction")))
+        out[sp] = dataclasses.replace(spec, **changes)
+    return out
 
 
 def validate(raw: dict, path=None, text: str = "") -> Scenario:
@@ -309,3 +346,89 @@ def load_scenario_inputs(scenario: Scenario, progress=None):
     return load_inputs(paths["sites"], paths.get("precipitation"), paths.get("air"),
                        paths.get("met"), reference_state=scenario.data["air"]["reference_state"],
                        progress=progress)
+
+
+def _plain(value):
+    """Options values as TOML-writable data (tuples -> lists, dataclasses -> tables)."""
+    import dataclasses
+    import math
+    if dataclasses.is_dataclass(value):
+        return {k: _plain(v) for k, v in dataclasses.asdict(value).items()}
+    if isinstance(value, dict):
+        return {str(k): _plain(v) for k, v in value.items()}
+    if isinstance(value, (tuple, list)):
+        return [_plain(v) for v in value]
+    if isinstance(value, float) and math.isinf(value):
+        return "inf"
+    return value
+
+
+def scenario_dict(inputs: dict, period=None, options=None, fixed_velocity=None,
+                  site_overrides=None, air=None, base=None) -> dict:
+    """A scenario as a TOML-ready dict that :func:`load_scenario` reads back.
+
+    Only options that differ from their defaults are written, so the file stays short
+    and says what was changed.
+
+    Parameters
+    ----------
+    inputs : dict
+        role -> path; written relative to `base` when possible.
+    period : dict, optional
+        ``start``, ``end``, ``resolution``.
+    options : dict, optional
+        ``{"wet": WetOptions, "dry": DryOptions, "budget": BudgetOptions}``.
+    fixed_velocity : dict, optional
+        species -> cm/s.
+    site_overrides : dict, optional
+        site id -> {key: value}.
+    air : dict, optional
+        The ``[air]`` section (``reference_state``).
+    base : Path, optional
+        Folder the scenario will be saved in.
+    """
+    import dataclasses
+    import os
+    out = {"inputs": {}}
+    for role, p in inputs.items():
+        if p is None:
+            continue
+        p = Path(p)
+        if base is not None:
+            try:
+                p = Path(os.path.relpath(p, base))
+            except ValueError:
+                pass
+        out["inputs"][role] = p.as_posix()
+    if period:
+        out["period"] = {k: v for k, v in period.items() if v is not None}
+    if air and air.get("reference_state"):
+        out["air"] = {"reference_state": air["reference_state"]}
+    for name, obj in (options or {}).items():
+        default = type(obj)()
+        changed = {}
+        for f in dataclasses.fields(obj):
+            v, d = getattr(obj, f.name), getattr(default, f.name)
+            if v != d and v is not None:
+                changed[f.name] = _plain(v)
+        if name == "dry" and "particle_modes" in changed:
+            dm = default.particle_modes
+            changed["particle_modes"] = {sp: _plain(spec) for sp, spec in obj.particle_modes.items()
+                                         if dm.get(sp) != spec}
+        if changed:
+            out[name] = changed
+    if fixed_velocity:
+        out.setdefault("dry", {})["fixed_velocity"] = {k: float(v) for k, v in fixed_velocity.items()}
+    if site_overrides:
+        out["sites"] = _plain({k: v for k, v in site_overrides.items() if v})
+    return out
+
+
+def save_scenario(path, **kwargs) -> Path:
+    """Write :func:`scenario_dict` (same keyword arguments) as TOML, atomically."""
+    import tomli_w
+    from .writers import atomic_write
+    path = Path(path)
+    data = scenario_dict(base=path.parent.resolve(), **kwargs)
+    text = "# Scenario written by the deposition workbench\n" + tomli_w.dumps(data)
+    return atomic_write(path, lambda tmp: tmp.write_text(text, encoding="utf-8"))
