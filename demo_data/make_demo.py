@@ -323,6 +323,14 @@ sites = "sites.toml"
 precipitation = "precipitation.csv"
 air = "air.csv"
 met = "met.csv.gz"
+
+[period]
+resolution = "year"
+
+[budget]
+# The mere site has a bulk collector, whose "wet" deposition already holds some dry
+# deposition: particle dry deposition is not added there (see docs/budget.md).
+bulk_correction = "exclude_particles"
 """
 
 if __name__ == "__main__":
