@@ -25,6 +25,21 @@ def _table_html(frame: pd.DataFrame, float_format="{:.3g}") -> str:
                          float_format=lambda v: float_format.format(v))
 
 
+_MARK = {"complete": "", "flagged": " f", "partial": " p", "filled": " ~", "missing": ""}
+
+
+def _pivot_html(per: pd.DataFrame) -> str:
+    """Rows site/receptor/element, one column per period, value with a status mark."""
+    if per.empty:
+        return "<p>No periods.</p>"
+    cell = per.apply(lambda r: "–" if not np.isfinite(r["flux_kg_ha_yr"]) else
+                     f"{r['flux_kg_ha_yr']:.3g}{_MARK.get(r['status'], '?')}", axis=1)
+    wide = per.assign(cell=cell).pivot_table(index=["site", "receptor", "element"],
+                                             columns="period", values="cell", aggfunc="first")
+    wide.columns.name = None
+    return wide.reset_index().to_html(index=False, border=0, classes="tab", na_rep="–")
+
+
 def render_report(result, study, scenario=None) -> str:
     """HTML text of the report: budget tables, figures, QA summary, omissions, cautions."""
     import plotly.io as pio
@@ -39,10 +54,12 @@ def render_report(result, study, scenario=None) -> str:
                                        "flux_eq_ha_yr", "status", "years_used", "years_excluded"]]))
     else:
         parts.append("<p>No year passes completeness.</p>")
-    parts.append("<h2>Totals per period</h2>")
+    parts.append("<h2>Totals per period [kg/ha/yr of S or N]</h2>")
+    parts.append("<p>Marks: <b>f</b> flagged (fails completeness), <b>p</b> partial (a "
+                 "component has no data), <b>~</b> filled, <b>–</b> missing. Exact values, "
+                 "eq/ha and every component are in budget.csv.</p>")
     per = totals[totals["period"] != "span"]
-    parts.append(_table_html(per[["site", "receptor", "period", "element", "flux_kg_ha",
-                                  "flux_eq_ha", "flux_kg_ha_yr", "completeness", "status"]]))
+    parts.append(_pivot_html(per))
     parts.append("<h2>Figures</h2>")
     first = True
     ds = result.years
