@@ -1,20 +1,28 @@
-"""Figures: pure functions, a budget Dataset (or table) in, a plotly figure out."""
+"""Figures: pure functions, a budget Dataset (or table) in, a plotly figure out.
+
+Every figure keeps the same traces for the same kind of input (one per component,
+season, site ...), so that an app can copy a new figure's data into a displayed
+``FigureWidget`` in one batched update (see :func:`workbench.ui.apps.refresh`).
+Deposition-velocity figures are in :mod:`workbench.ui.figures_dry`, precipitation
+chemistry QA in :mod:`workbench.ui.figures_wet`.
+"""
 from __future__ import annotations
 
 import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
+from plotly.subplots import make_subplots
 
-from ..units import element_deposition_in
-from .palette import COMPONENT_COLOURS, STATUS_OPACITY, STATUS_PATTERN
+from .palette import (COMPONENT_COLOURS, ELEMENT_DASH, ENVELOPE_FILL, OKABE_ITO,
+                      PATHWAY_COLOURS, SITE_CYCLE, STATUS_OPACITY, STATUS_PATTERN, TEMPLATE)
+from .summaries import UNITS, axis_text, component_rates, monthly_amounts, total_rates
 
-#: Reported units: label -> (deposition unit key, scale, axis text).
-UNITS = {
-    "kg/ha/yr": ("kg_ha", 1.0, "kg {el} ha-1 yr-1"),
-    "eq/ha/yr": ("eq_ha", 1.0, "eq ha-1 yr-1"),
-    "keq/ha/yr": ("eq_ha", 1e-3, "keq ha-1 yr-1"),
-    "mmol/m2/yr": ("mmol_m2", 1.0, "mmol {el} m-2 yr-1"),
-}
+#: Order of the elements side by side.
+ELEMENTS = ("S", "N")
+#: Marker of a total: filled where rankable, open where partial or failing.
+TOTAL_SYMBOL = {True: "diamond", False: "diamond-open"}
+#: Height of a figure [px].
+HEIGHT = 420
 
 
 def annual_rate(ds, site, receptor, period, unit="kg/ha/yr"):
@@ -23,49 +31,248 @@ def annual_rate(ds, site, receptor, period, unit="kg/ha/yr"):
     Returns
     -------
     pandas.DataFrame
-        ``element, pathway, species, value, status, completeness``.
+        ``element, pathway, species, value`` [unit], ``status``, ``completeness``.
     """
-    key, scale, _ = UNITS[unit]
-    sel = ds.sel(site=site, receptor=receptor, period=period)
-    fac = float(sel["annual_factor"])
-    rows = []
-    for i, comp in enumerate(sel["component"].values):
-        el = str(sel["element"].values[i])
-        v = float(sel["deposition"].values[i])
-        rows.append({"element": el, "pathway": str(sel["pathway"].values[i]),
-                     "species": str(sel["species"].values[i]),
-                     "value": float(element_deposition_in(v, el, key)) * scale * fac,
-                     "status": str(sel["status"].values[i]),
-                     "completeness": float(sel["completeness"].values[i])})
-    return pd.DataFrame(rows)
+    t = component_rates(ds, site, receptor, period, unit)
+    return t.drop(columns="period")
 
 
-def budget_bars(ds, site, receptor, period, unit="kg/ha/yr", fig=None):
+def _hover_value(value, status, completeness, axis):
+    if not np.isfinite(value):
+        return f"no data (status {status})"
+    comp = f"{completeness:.0%}" if np.isfinite(completeness) else "n/a"
+    return f"{value:.3g} {axis}<br>status {status}, completeness {comp}"
+
+
+def budget_bars(ds, site, receptor, period=None, unit="kg/ha/yr", fig=None):
     """Stacked bars of the wet and dry parts by species, S and N side by side.
 
-    Bars of components that are not complete are faded and patterned by status; the
-    hover text gives the number, its status and completeness.
+    One bar per element and period (x axis: element, then period).  Bars of
+    components that are not complete are faded and patterned by status
+    (:data:`~workbench.ui.palette.STATUS_OPACITY`, ``STATUS_PATTERN``); a diamond on
+    each stack marks the total, open where the total is partial, flagged or missing.
+    Hover text gives every number, its status and completeness.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        A budget (``Result.years`` or ``Result.budget``).
+    site, receptor : str
+    period : str or list of str, optional
+        Period labels (default: every period of `ds`).
+    unit : str
+        A key of :data:`workbench.ui.summaries.UNITS`.
+    fig : plotly Figure, optional
+        Traces are added to this figure.
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        Ten bar traces (one per component, in the budget's order) and one scatter
+        trace of the totals.
     """
-    table = annual_rate(ds, site, receptor, period, unit)
-    _, _, axis = UNITS[unit]
+    comp = component_rates(ds, site, receptor, period, unit)
+    tot = total_rates(ds, site, receptor, period, unit)
     fig = fig if fig is not None else go.Figure()
     traces = []
-    for _, r in table.iterrows():
-        name = f"{r['pathway']} {r['species']}"
-        st = r["status"]
-        value = 0.0 if not np.isfinite(r["value"]) else r["value"]
+    for (el, pw, sp), g in comp.groupby(["element", "pathway", "species"], sort=False):
+        name = f"{pw} {sp}"
+        axis = axis_text(unit, element=el)
+        st = g["status"].to_numpy()
         traces.append(go.Bar(
-            x=[r["element"]], y=[value], name=name, legendgroup=name,
-            marker=dict(color=COMPONENT_COLOURS[f"{r['pathway']}/{r['species']}"],
-                        opacity=STATUS_OPACITY.get(st, 1.0),
-                        pattern=dict(shape=STATUS_PATTERN.get(st, ""))),
-            hovertemplate=(f"{name}: %{{y:.3g}} {axis.format(el=r['element'])}<br>status {st}"
-                           f"<br>completeness {r['completeness']:.0%}<extra></extra>"
-                           if np.isfinite(r["completeness"]) else
-                           f"{name}: not available<br>status {st}<extra></extra>")))
+            x=[[el] * len(g), g["period"].tolist()],
+            y=[v if np.isfinite(v) else None for v in g["value"]],
+            name=name, legendgroup=name,
+            marker=dict(color=COMPONENT_COLOURS[f"{pw}/{sp}"],
+                        opacity=[STATUS_OPACITY.get(s, 1.0) for s in st],
+                        pattern=dict(shape=[STATUS_PATTERN.get(s, "") for s in st]),
+                        line=dict(color=OKABE_ITO["black"], width=0.5)),
+            customdata=[_hover_value(v, s, c, axis) for v, s, c in
+                        zip(g["value"], st, g["completeness"])],
+            hovertemplate=f"{el} {name} %{{x[1]}}: %{{customdata}}<extra></extra>"))
+    t = tot[tot["pathway"] == "total"].set_index(["element", "period"])
+    xs_el, xs_p, ys, text, sym = [], [], [], [], []
+    for el in ELEMENTS:
+        for p in pd.unique(comp["period"]):
+            r = t.loc[(el, p)]
+            ok = r["status"] in ("complete", "filled")
+            xs_el.append(el)
+            xs_p.append(p)
+            ys.append(float(r["value"]) if np.isfinite(r["value"]) else None)
+            miss = f"<br>no data for {r['missing']}" if r["missing"] else ""
+            text.append(f"{el} total {p}: {r['value']:.3g} {axis_text(unit, element=el)}"
+                        f"<br>status {r['status']}{miss}")
+            sym.append(TOTAL_SYMBOL[bool(ok)])
+    traces.append(go.Scatter(
+        x=[xs_el, xs_p], y=ys, mode="markers", name="total", legendgroup="total",
+        marker=dict(symbol=sym, size=11, color=OKABE_ITO["black"],
+                    line=dict(color=OKABE_ITO["black"], width=1.5)),
+        customdata=text, hovertemplate="%{customdata}<extra></extra>"))
     fig.add_traces(traces)
-    el_units = " / ".join(axis.format(el=e) for e in ("S", "N")) if "{el}" in axis else axis
-    fig.update_layout(barmode="stack", title=f"{site} · {receptor} · {period}",
-                      yaxis_title=el_units, xaxis_title="element",
-                      legend_title="pathway and species", template="simple_white")
+    fig.update_layout(barmode="stack", title=f"Budget · {site} · {receptor}",
+                      yaxis_title=axis_text(unit), xaxis_title="element and period",
+                      legend_title="pathway and species", template=TEMPLATE, height=HEIGHT)
+    return fig
+
+
+def monthly_fluxes(ds_month, site, receptor, unit="kg/ha/yr"):
+    """Monthly wet and dry deposition of S (top) and N (bottom) over the years.
+
+    Months whose part is not complete are drawn with open markers (hover: status).
+
+    Parameters
+    ----------
+    ds_month : xarray.Dataset
+        A budget at monthly resolution (``Result.budget`` of a ``"month"`` run).
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        Four traces: S wet, S dry, N wet, N dry.
+    """
+    t = monthly_amounts(ds_month, site, receptor, unit)
+    fig = make_subplots(rows=2, cols=1, shared_xaxes=True, vertical_spacing=0.08,
+                        subplot_titles=("sulfur", "nitrogen"))
+    for row, el in enumerate(ELEMENTS, start=1):
+        for pw in ("wet", "dry"):
+            g = t[(t["element"] == el) & (t["pathway"] == pw)]
+            st = g["status"].to_numpy()
+            fig.add_trace(go.Scatter(
+                x=g["start"], y=[v if np.isfinite(v) else None for v in g["value"]],
+                mode="lines+markers", name=f"{el} {pw}", legendgroup=pw,
+                line=dict(color=PATHWAY_COLOURS[pw], dash=ELEMENT_DASH[el]),
+                marker=dict(symbol=["circle" if s == "complete" else "circle-open" for s in st],
+                            size=6, color=PATHWAY_COLOURS[pw]),
+                customdata=st, hovertemplate=(f"{el} {pw} %{{x|%Y-%m}}: %{{y:.3g}} "
+                                              f"{axis_text(unit, True, el)}<br>status "
+                                              "%{customdata}<extra></extra>")), row=row, col=1)
+        fig.update_yaxes(title_text=axis_text(unit, True, el), row=row, col=1)
+    fig.update_xaxes(title_text="month (UTC)", row=2, col=1)
+    fig.update_layout(title=f"Monthly deposition · {site} · {receptor}", template=TEMPLATE,
+                      height=HEIGHT + 100, legend_title="element and pathway")
+    return fig
+
+
+def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr"):
+    """Response of each total to one assumption, the baseline marked.
+
+    Parameters
+    ----------
+    table : pandas.DataFrame
+        ``value`` (the assumption's setting), ``total`` (``S_total`` ...),
+        ``rate`` [unit], ``status`` (see :func:`workbench.ui.session.Session.sweep`).
+    label : str
+        The assumption's name with its unit (x axis title).
+    baseline : object
+        The scenario's setting (marked by a vertical line and open markers).
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        Six traces (S and N: wet, dry, total) and two of the baseline points.
+    """
+    fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"))
+    cat = not all(isinstance(v, (int, float, np.number)) and not isinstance(v, bool)
+                  for v in table["value"])
+    xs = [str(v) for v in table["value"]] if cat else table["value"].tolist()
+    t = table.assign(x=xs)
+    base_x = str(baseline) if cat else baseline
+    for col, el in enumerate(ELEMENTS, start=1):
+        for pw in ("wet", "dry", "total"):
+            g = t[t["total"] == f"{el}_{pw}"]
+            fig.add_trace(go.Scatter(
+                x=g["x"], y=[v if np.isfinite(v) else None for v in g["rate"]],
+                mode="lines+markers", name=f"{el} {pw}", legendgroup=pw,
+                line=dict(color=PATHWAY_COLOURS[pw], width=3 if pw == "total" else 1.5),
+                customdata=g["status"],
+                hovertemplate=(f"{el} {pw} at %{{x}}: %{{y:.3g}} {axis_text(unit, element=el)}"
+                               "<br>status %{customdata}<extra></extra>")), row=1, col=col)
+        g = t[(t["total"] == f"{el}_total") & (t["x"] == base_x)]
+        fig.add_trace(go.Scatter(
+            x=g["x"], y=g["rate"], mode="markers", name="baseline", legendgroup="baseline",
+            showlegend=col == 1, marker=dict(symbol="star", size=14, color=OKABE_ITO["black"]),
+            hovertemplate="baseline %{x}: %{y:.3g}<extra></extra>"), row=1, col=col)
+        fig.update_yaxes(title_text=axis_text(unit, element=el), row=1, col=col, rangemode="tozero")
+        fig.update_xaxes(title_text=label, row=1, col=col)
+    if not cat and baseline is not None:
+        fig.add_vline(x=baseline, line=dict(color=OKABE_ITO["grey"], dash="dot"))
+    fig.update_layout(title=f"Sensitivity of the totals to {label}", template=TEMPLATE,
+                      height=HEIGHT)
+    return fig
+
+
+def network_totals(table: pd.DataFrame, unit="kg/ha/yr"):
+    """Annual S and N totals of every site over the years.
+
+    Totals that are not rankable (a partial set of species, or failing completeness)
+    are drawn with open markers and named so in the hover text; the lines join only
+    rankable years.
+
+    Parameters
+    ----------
+    table : pandas.DataFrame
+        Output of :func:`workbench.ui.summaries.network_table`.
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        Per site and element: one trace of rankable years and one of the others.
+    """
+    fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"))
+    sites = list(pd.unique(table["site"]))
+    for col, el in enumerate(ELEMENTS, start=1):
+        for i, site in enumerate(sites):
+            g = table[(table["site"] == site) & (table["element"] == el)]
+            colour = SITE_CYCLE[i % len(SITE_CYCLE)]
+            for ok in (True, False):
+                v = np.where(g["rankable"] == ok, g["value"], np.nan)
+                why = [f"{s}" + (f", no data for {m}" if m else "") for s, m in
+                       zip(g["status"], g["missing"])]
+                fig.add_trace(go.Scatter(
+                    x=g["period"], y=[x if np.isfinite(x) else None for x in v],
+                    mode="lines+markers" if ok else "markers",
+                    name=f"{site}" if ok else f"{site} (partial or flagged: not ranked)",
+                    legendgroup=site, showlegend=col == 1,
+                    line=dict(color=colour), connectgaps=False,
+                    marker=dict(color=colour, size=9, symbol="circle" if ok else "circle-open"),
+                    customdata=why,
+                    hovertemplate=(f"{site} {el} total %{{x}}: %{{y:.3g}} "
+                                   f"{axis_text(unit, element=el)}<br>%{{customdata}}"
+                                   "<extra></extra>")), row=1, col=col)
+        fig.update_yaxes(title_text=axis_text(unit, element=el), row=1, col=col, rangemode="tozero")
+        fig.update_xaxes(title_text="year", type="category", row=1, col=col)
+    fig.update_layout(title="Annual totals of the network (each site on its own surface)",
+                      template=TEMPLATE, height=HEIGHT, legend_title="site")
+    return fig
+
+
+def network_ranking_bars(ranked: pd.DataFrame, apart: pd.DataFrame, element: str,
+                         unit="kg/ha/yr"):
+    """Sites ranked by their mean annual total; the others listed apart, unranked.
+
+    Parameters
+    ----------
+    ranked, apart : pandas.DataFrame
+        Outputs of :func:`workbench.ui.summaries.network_ranking`.
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        One bar trace (ranked sites only); the unranked sites are named in a note.
+    """
+    fig = go.Figure(go.Bar(
+        y=[f"{r} · {s}" for r, s in zip(ranked["rank"], ranked["site"])],
+        x=ranked["value"], orientation="h", marker=dict(color=OKABE_ITO["blue"]),
+        customdata=ranked["years"], name="complete totals",
+        hovertemplate="%{y}: %{x:.3g}<br>years %{customdata}<extra></extra>"))
+    note = "<br>".join(f"{s}: not ranked ({w})" for s, w in zip(apart["site"], apart["why"]))
+    if note:
+        fig.add_annotation(text="Partial or flagged totals, not ranked:<br>" + note,
+                           xref="paper", yref="paper", x=0, y=-0.25, showarrow=False,
+                           align="left", xanchor="left", yanchor="top",
+                           bgcolor=ENVELOPE_FILL)
+    fig.update_layout(title=f"{element} total, mean of the years: complete totals ranked",
+                      xaxis_title=axis_text(unit, element=element), yaxis_title="rank · site",
+                      yaxis=dict(autorange="reversed"), template=TEMPLATE,
+                      height=HEIGHT, margin=dict(b=160))
     return fig

@@ -1,0 +1,327 @@
+"""ipywidgets apps composed from the figures: site explorer, sensitivity, network.
+
+Each app is a ``VBox`` (display it as the last line of a cell) built on a
+:class:`~workbench.ui.session.Session`.  A change of a control recomputes only the
+stages that the assumption touches (the study caches the others: a wet option never
+recomputes Vd) and copies the new figures into the displayed ``FigureWidget`` objects
+in batched updates.
+"""
+from __future__ import annotations
+
+import html
+import time
+from pathlib import Path
+
+import ipywidgets as widgets
+import plotly.graph_objects as go
+
+from . import figures, figures_dry, figures_wet
+from .assumptions import ASSUMPTIONS, Settings
+from .controls import (Progress, caution_box, figure_widget, make_control, open_with_progress,
+                       refresh, set_quietly, table_html)
+from .session import Session
+from .summaries import UNITS, change_line, excluded_samples, mean_totals
+
+#: Tabs of the site explorer below the budget: name -> what the figure needs.
+TABS = ("monthly fluxes", "deposition velocity", "resistances", "ion balance",
+        "capture efficiency", "excluded samples")
+#: Gases whose resistances may be shown.
+GASES = ("SO2", "HNO3", "NH3", "NO2")
+
+
+class SiteExplorer(widgets.VBox):
+    """Budget of one site and some years, with every assumption at hand.
+
+    Parameters
+    ----------
+    session : Session
+    site : str, optional
+        Default: the first site with data.
+    years : (int, int), optional
+        First and last calendar year; default: the last year with data.
+    unit : str
+        A key of :data:`workbench.ui.summaries.UNITS`.
+    progress : Progress, optional
+        Reused for the first run (else a new one).
+
+    Attributes
+    ----------
+    settings : Settings
+        The settings in force.
+    result : workbench.pipeline.Result
+        The last run (monthly ``budget`` and yearly ``years``).
+    controls : dict
+        Assumption key -> widget.
+    figs : dict
+        Name -> FigureWidget (``budget`` and the names of :data:`TABS`).
+    latency_s : float
+        Time of the last change, from the control to the updated figures [s].
+    """
+
+    @classmethod
+    def from_scenario(cls, scenario_path, **kw) -> "SiteExplorer":
+        """Read a scenario (with a progress bar) and open the explorer on it."""
+        return open_with_progress(cls, scenario_path, **kw)
+
+    def __init__(self, session: Session, site=None, years=None, unit="kg/ha/yr", progress=None):
+        self.session = session
+        self.settings: Settings = session.baseline
+        sites = session.sites
+        site = site or sites[0]
+        first, last = session.years
+        years = tuple(years) if years else (last, last)
+        self.progress = progress or Progress()
+        self.site_w = widgets.Dropdown(options=sites, value=site, description="site")
+        self.receptor_w = widgets.Dropdown(options=session.receptors(site), description="receptor")
+        self.years_w = widgets.IntRangeSlider(value=years, min=first, max=last, step=1,
+                                              description="years", continuous_update=False)
+        self.unit_w = widgets.Dropdown(options=list(UNITS), value=unit, description="unit")
+        self.gas_w = widgets.Dropdown(options=GASES, value=GASES[0], description="gas")
+        for w, cls_ in ((self.site_w, "wb-site"), (self.receptor_w, "wb-receptor"),
+                        (self.years_w, "wb-years"), (self.unit_w, "wb-unit")):
+            w.add_class(cls_)
+        self.controls = {k: make_control(a, a.get(self.settings, site))
+                         for k, a in ASSUMPTIONS.items()}
+        self.change_w = widgets.HTML("", layout=widgets.Layout(min_height="1.6em"))
+        self.change_w.add_class("wb-change")
+        self.message_w = widgets.HTML("")
+        self.excluded_w = widgets.HTML("")
+        self.latency_s = float("nan")
+        self._before = None
+        self._drawn = {}
+        self.progress.start("first run")
+        self.result = self._run()
+        self.figs = {"budget": figure_widget(self._figure("budget"))}
+        for name in TABS[:-1]:
+            self.figs[name] = figure_widget(self._figure(name))
+            self._drawn[name] = self._tab_key(name)
+        self.figs["budget"].add_class("wb-budget")
+        self._totals = self._current_totals()
+        self.change_w.value = html.escape(change_line(None, self._totals, self.unit_w.value))
+        self.excluded_w.value = self._excluded_html()
+        self.tabs = widgets.Tab([self.figs[n] for n in TABS[:-1]] + [self.excluded_w])
+        for i, n in enumerate(TABS):
+            self.tabs.set_title(i, n)
+        self.progress.done("first run done")
+        super().__init__(self._layout())
+        self._wire()
+
+    # ------------------------------------------------------------------ layout
+    def _layout(self):
+        groups = {}
+        for k, a in ASSUMPTIONS.items():
+            groups.setdefault(a.group, []).append(self.controls[k])
+        acc = widgets.Accordion([widgets.VBox(v) for v in groups.values()])
+        for i, g in enumerate(groups):
+            acc.set_title(i, g)
+        self.save_path_w = widgets.Text(value="my_scenario.toml", description="scenario file")
+        self.save_w = widgets.Button(description="Save scenario", icon="save",
+                                     tooltip="write the current options as a scenario TOML file")
+        self.export_path_w = widgets.Text(value="run-folder", description="run folder")
+        self.overwrite_w = widgets.Checkbox(value=False, description="overwrite", indent=False)
+        self.export_w = widgets.Button(description="Export run folder", icon="download",
+                                       tooltip="the files of `workbench run`, for this site and "
+                                               "these years")
+        self.reset_w = widgets.Button(description="Reset to scenario", icon="undo")
+        buttons = widgets.VBox([widgets.HBox([self.save_path_w, self.save_w]),
+                                widgets.HBox([self.export_path_w, self.overwrite_w, self.export_w]),
+                                widgets.HBox([self.reset_w]), self.message_w])
+        left = widgets.VBox([widgets.HTML("<b>Assumptions</b>"), acc, buttons],
+                            layout=widgets.Layout(width="460px"))
+        right = widgets.VBox([self.change_w, self.figs["budget"], self.gas_w, self.tabs],
+                             layout=widgets.Layout(flex="1"))
+        head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w])
+        return [widgets.HTML("<h3>Site budget explorer</h3>"), caution_box(), head,
+                self.progress, widgets.HBox([left, right])]
+
+    def _wire(self):
+        for k, w in self.controls.items():
+            w.observe(self._on_control, "value")
+        self.site_w.observe(self._on_site, "value")
+        self.years_w.observe(self._on_years, "value")
+        self.receptor_w.observe(self._on_view, "value")
+        self.unit_w.observe(self._on_view, "value")
+        self.gas_w.observe(self._on_view, "value")
+        self.tabs.observe(self._on_tab, "selected_index")
+        self.save_w.on_click(lambda _: self.save_scenario(self.save_path_w.value))
+        self.export_w.on_click(lambda _: self.export_run(self.export_path_w.value,
+                                                         self.overwrite_w.value))
+        self.reset_w.on_click(lambda _: self.reset())
+
+    # ------------------------------------------------------------------ state
+    @property
+    def site(self):
+        return self.site_w.value
+
+    @property
+    def years(self):
+        return tuple(self.years_w.value)
+
+    @property
+    def study(self):
+        """The study of the current site and years (its ``counts`` show what ran)."""
+        return self.session.study_for(self.site, *self.years)
+
+    def _monthly_shown(self):
+        return TABS[self.tabs.selected_index or 0] == "monthly fluxes" if hasattr(self, "tabs") else True
+
+    def _run(self):
+        """Run at monthly resolution while the monthly tab shows (it gives the years too),
+        else yearly only (faster)."""
+        res = "month" if self._monthly_shown() else "year"
+        return self.session.run(self.settings, self.site, *self.years, res)
+
+    def _current_totals(self):
+        return mean_totals(self.result.years, self.site, self.receptor_w.value, None,
+                           self.unit_w.value)
+
+    # ------------------------------------------------------------------ figures
+    def _figure(self, name):
+        r, site, rec, unit = self.result, self.site, self.receptor_w.value, self.unit_w.value
+        off = self.session.utc_offset(site)
+        if name == "budget":
+            return figures.budget_bars(r.years, site, rec, None, unit)
+        if name == "monthly fluxes":
+            if r.options.get("resolution") != "month":
+                self.result = r = self.session.run(self.settings, site, *self.years, "month")
+            return figures.monthly_fluxes(r.budget, site, rec, unit)
+        if name == "deposition velocity":
+            if r.velocities is None:
+                return go.Figure(layout=dict(title="no deposition velocities (fixed or no met)"))
+            return figures_dry.velocity_diurnal(r.velocities, site, rec, utc_offset_h=off)
+        if name == "resistances":
+            if r.velocities is None:
+                return go.Figure(layout=dict(title="no resistances (fixed velocities or no met)"))
+            return figures_dry.resistance_breakdown(r.velocities, site, rec, self.gas_w.value, off)
+        if name == "ion balance":
+            return figures_wet.ion_balance(r.screened, site, self.settings.wet)
+        if name == "capture efficiency":
+            return figures_wet.capture_efficiency(r.screened, site, self.settings.wet)
+        raise KeyError(name)
+
+    def _tab_key(self, name):
+        r, rec = self.result, self.receptor_w.value
+        if name == "monthly fluxes":
+            return (id(r.years), rec, self.unit_w.value)
+        if name == "deposition velocity":
+            return (id(r.velocities), rec)
+        if name == "resistances":
+            return (id(r.velocities), rec, self.gas_w.value)
+        if name in ("ion balance", "capture efficiency"):
+            return (id(r.screened), self.settings.wet.ion_balance_tiers, self.settings.wet.capture_rain)
+        return None
+
+    def _draw_tab(self, name, force=False):
+        if name not in self.figs:
+            return
+        key = self._tab_key(name)
+        if force or self._drawn.get(name) != key:
+            refresh(self.figs[name], self._figure(name))
+            self._drawn[name] = key
+
+    def _excluded_html(self):
+        t = excluded_samples(self.result.screened, self.site)
+        if not t.empty:
+            t = t.assign(start=t["start"].dt.strftime("%Y-%m-%d %H:%M"),
+                         end=t["end"].dt.strftime("%Y-%m-%d %H:%M"))
+        return table_html(t, "no sample excluded or flagged")
+
+    def redraw(self, all_tabs=False):
+        """Update the figures from the last run (all tabs, or the budget and the open tab)."""
+        refresh(self.figs["budget"], self._figure("budget"))
+        after = self._current_totals()
+        self.change_w.value = html.escape(change_line(self._before, after, self.unit_w.value))
+        self._totals = after
+        self.excluded_w.value = self._excluded_html()
+        names = TABS[:-1] if all_tabs else [TABS[self.tabs.selected_index or 0]]
+        for name in names:
+            self._draw_tab(name)
+
+    def recompute(self, text="recomputing"):
+        """Run with the current settings and update the figures."""
+        t0 = time.perf_counter()
+        self.progress.start(text)
+        self._before = self._totals
+        try:
+            self.result = self._run()
+        except Exception as exc:  # shown in the app; the previous figures stay
+            self.message_w.value = f"<span style='color:#D55E00'>{html.escape(str(exc))}</span>"
+            self.progress.step("failed", 1.0)
+            raise
+        self.redraw()
+        self.latency_s = time.perf_counter() - t0
+        self.progress.done("updated")
+
+    # ------------------------------------------------------------------ events
+    def _on_control(self, change):
+        key = next(k for k, w in self.controls.items() if w is change["owner"])
+        a = ASSUMPTIONS[key]
+        self.settings = a.set(self.settings, self.site, change["new"])
+        self.recompute("recomputing deposition velocities (a few seconds)" if a.stage == "dry"
+                       else f"recomputing ({a.stage} stage)")
+
+    def _on_site(self, change):
+        recs = self.session.receptors(self.site)
+        set_quietly(self.receptor_w, None, self._on_view)
+        self.receptor_w.options = recs
+        set_quietly(self.receptor_w, recs[0], self._on_view)
+        for k, a in ASSUMPTIONS.items():
+            if k.startswith("site."):
+                set_quietly(self.controls[k], a.get(self.settings, self.site), self._on_control)
+        self._totals = None
+        self.recompute("new site: computing its deposition velocities")
+
+    def _on_years(self, change):
+        self._totals = None
+        self.recompute("new years: computing their deposition velocities")
+
+    def _on_view(self, change):
+        if self.receptor_w.value is None:
+            return
+        t0 = time.perf_counter()
+        self._before = None
+        self.redraw()
+        self.latency_s = time.perf_counter() - t0
+
+    def _on_tab(self, change):
+        i = change["new"]
+        if i is not None and i < len(TABS) - 1:
+            self._draw_tab(TABS[i])
+
+    # ------------------------------------------------------------------ buttons
+    def reset(self):
+        """Back to the scenario's settings."""
+        self.settings = self.session.baseline
+        for k, a in ASSUMPTIONS.items():
+            set_quietly(self.controls[k], a.get(self.settings, self.site), self._on_control)
+        self.recompute("reset to the scenario")
+
+    def save_scenario(self, path) -> Path:
+        """Save the current settings and years as a scenario file."""
+        try:
+            p = self.session.save_scenario(path, self.settings, *self.years)
+        except Exception as exc:
+            self.message_w.value = f"<span style='color:#D55E00'>not saved: {html.escape(str(exc))}</span>"
+            raise
+        self.message_w.value = f"saved {html.escape(str(p))}"
+        return p
+
+    def export_run(self, out, overwrite=False) -> dict:
+        """Export the run folder of this site and these years."""
+        self.progress.start("exporting the run folder")
+        try:
+            written = self.session.export_run(out, self.settings, self.site, *self.years,
+                                              overwrite=overwrite, progress=self.progress.step)
+        except Exception as exc:
+            self.message_w.value = f"<span style='color:#D55E00'>not exported: {html.escape(str(exc))}</span>"
+            self.progress.step("export failed", 1.0)
+            raise
+        self.progress.done("exported")
+        self.message_w.value = (f"wrote {len(written)} files into "
+                                f"{html.escape(str(Path(out).resolve()))}")
+        return written
+
+
+from .apps_more import NetworkOverview, SensitivityExplorer  # noqa: E402  (public here)
+
+__all__ = ["SiteExplorer", "SensitivityExplorer", "NetworkOverview", "caution_box", "TABS"]

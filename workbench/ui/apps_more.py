@@ -1,0 +1,196 @@
+"""The sensitivity explorer and the network overview (see :mod:`workbench.ui.apps`)."""
+from __future__ import annotations
+
+import html
+
+import ipywidgets as widgets
+import numpy as np
+import pandas as pd
+
+from . import figures
+from .assumptions import ASSUMPTIONS, Settings
+from .controls import Progress, caution_box, figure_widget, open_with_progress, refresh, table_html
+from .session import Session
+from .summaries import UNITS, network_ranking, network_table
+
+#: Default number of values of a swept number.
+SWEEP_STEPS = 6
+#: Most values of a swept number.
+MAX_STEPS = 15
+#: Assumption swept when the explorer opens (a budget-stage one: no Vd recomputed).
+FIRST_SWEEP = "fixed_velocity.SO2"
+
+
+def sweep_values(a, low=None, high=None, steps=SWEEP_STEPS) -> list:
+    """Values of an assumption to sweep: its choices, or `steps` numbers low..high."""
+    if a.kind in ("choice", "bool"):
+        return a.values
+    lo, hi = (a.sweep if low is None else (low, high))
+    return [float(v) for v in np.round(np.linspace(lo, hi, int(steps)), 6)]
+
+
+class SensitivityExplorer(widgets.VBox):
+    """Pick one assumption and a range; see how each total responds.
+
+    The baseline (the scenario's setting) is marked; for a number left to the model
+    (a fixed velocity not set, the catalogue's roughness) the baseline is drawn as the
+    totals of that run.
+
+    Attributes
+    ----------
+    table : pandas.DataFrame
+        The last sweep (``value, total, rate, status``).
+    fig : plotly.graph_objects.FigureWidget
+    """
+
+    @classmethod
+    def from_scenario(cls, scenario_path, **kw) -> "SensitivityExplorer":
+        return open_with_progress(cls, scenario_path, **kw)
+
+    def __init__(self, session: Session, site=None, years=None, key=FIRST_SWEEP,
+                 unit="kg/ha/yr", progress=None, run=True):
+        self.session = session
+        self.settings: Settings = session.baseline
+        first, last = session.years
+        site = site or session.sites[0]
+        years = tuple(years) if years else (last, last)
+        self.progress = progress or Progress()
+        self.site_w = widgets.Dropdown(options=session.sites, value=site, description="site")
+        self.receptor_w = widgets.Dropdown(options=session.receptors(site), description="receptor")
+        self.years_w = widgets.IntRangeSlider(value=years, min=first, max=last, description="years",
+                                              continuous_update=False)
+        self.unit_w = widgets.Dropdown(options=list(UNITS), value=unit, description="unit")
+        self.key_w = widgets.Dropdown(options=[(f"{a.group}: {a.label}", k) for k, a in ASSUMPTIONS.items()],
+                                      value=key, description="assumption",
+                                      layout=widgets.Layout(width="560px"),
+                                      style={"description_width": "90px"})
+        self.range_w = widgets.FloatRangeSlider(description="range", continuous_update=False,
+                                                layout=widgets.Layout(width="560px"),
+                                                style={"description_width": "90px"})
+        self.steps_w = widgets.IntSlider(value=SWEEP_STEPS, min=2, max=MAX_STEPS, description="values")
+        self.run_w = widgets.Button(description="Run sweep", icon="play", button_style="primary")
+        self.note_w = widgets.HTML("")
+        self.table_w = widgets.HTML("")
+        self.table = pd.DataFrame(columns=["value", "total", "rate", "status"])
+        self.fig = figure_widget(figures.sensitivity_curves(self.table, "", None, unit))
+        self._set_range()
+        self.key_w.observe(lambda c: self._set_range(), "value")
+        self.site_w.observe(self._on_site, "value")
+        self.run_w.on_click(lambda _: self.run())
+        self.unit_w.observe(lambda c: self.run(), "value")
+        head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w])
+        super().__init__([widgets.HTML("<h3>Sensitivity explorer</h3>"), caution_box(), head,
+                          self.key_w, widgets.HBox([self.range_w, self.steps_w]),
+                          widgets.HBox([self.run_w, self.progress]), self.note_w, self.fig,
+                          self.table_w])
+        if run:
+            self.run()
+
+    def _set_range(self):
+        a = ASSUMPTIONS[self.key_w.value]
+        numeric = a.kind in ("float", "optional_float")
+        self.range_w.layout.display = "" if numeric else "none"
+        self.steps_w.layout.display = "" if numeric else "none"
+        if numeric:
+            lo, hi, step = a.bounds
+            w = self.range_w
+            if lo > w.max:
+                w.max, w.min = hi, lo
+            else:
+                w.min, w.max = lo, hi
+            w.step = step
+            w.value = a.sweep
+
+    def _on_site(self, change):
+        self.receptor_w.options = self.session.receptors(self.site_w.value)
+        self.receptor_w.value = self.receptor_w.options[0]
+
+    def run(self):
+        """Sweep the chosen assumption and redraw."""
+        a = ASSUMPTIONS[self.key_w.value]
+        site, rec, unit = self.site_w.value, self.receptor_w.value, self.unit_w.value
+        years = tuple(self.years_w.value)
+        lo, hi = self.range_w.value if a.kind in ("float", "optional_float") else (None, None)
+        values = sweep_values(a, lo, hi, self.steps_w.value)
+        base = a.get(self.settings, site)
+        if base is not None and base not in values:
+            values = sorted(values + [base]) if a.kind != "choice" else values
+        self.progress.start(f"sweeping {a.label}" + (" (recomputes Vd each time)" if a.stage == "dry" else ""))
+        self.table = self.session.sweep(a.key, values, self.settings, site, *years, rec, unit,
+                                        progress=self.progress.step)
+        fig = figures.sensitivity_curves(self.table, a.label, base, unit)
+        if base is None:
+            b = self.session.sweep(a.key, [None], self.settings, site, *years, rec, unit)
+            for col, el in enumerate(("S", "N"), start=1):
+                v = b.loc[b["total"] == f"{el}_total", "rate"].iloc[0]
+                if np.isfinite(v):
+                    fig.add_hline(y=v, line=dict(dash="dot"), row=1, col=col,
+                                  annotation_text="baseline (model)")
+            self.note_w.value = "Baseline: left to the model or the catalogue (dotted line)."
+        else:
+            self.note_w.value = f"Baseline: {html.escape(str(base))} (star)."
+        refresh(self.fig, fig)
+        show = self.table.pivot_table(index="value", columns="total", values="rate", sort=False)
+        self.table_w.value = table_html(show.reset_index())
+        self.progress.done("sweep done")
+        return self.table
+
+
+class NetworkOverview(widgets.VBox):
+    """All sites side by side: annual totals over the years and a ranking.
+
+    A total built on a partial set of species (or failing completeness) is drawn with
+    open markers and never ranked beside complete ones.
+    """
+
+    @classmethod
+    def from_scenario(cls, scenario_path, **kw) -> "NetworkOverview":
+        return open_with_progress(cls, scenario_path, **kw)
+
+    def __init__(self, session: Session, years=None, unit="kg/ha/yr", progress=None):
+        self.session = session
+        self.settings = session.baseline
+        first, last = session.years
+        self.years = tuple(years) if years else (first, last)
+        self.progress = progress or Progress()
+        self.unit_w = widgets.Dropdown(options=list(UNITS), value=unit, description="unit")
+        self.results = {}
+        sites = session.sites
+        for i, site in enumerate(sites):
+            self.progress.step(f"computing {site} ({i + 1} of {len(sites)})", i / len(sites))
+            self.results[site] = session.run(self.settings, site, *self.years, "year")
+        self.progress.done("network computed")
+        self.figs = {}
+        self._draw(create=True)
+        self.unit_w.observe(lambda c: self._draw(), "value")
+        super().__init__([widgets.HTML("<h3>Network overview</h3>"), caution_box(),
+                          widgets.HBox([self.unit_w, self.progress]), self.figs["totals"],
+                          widgets.HBox([self.figs["S"], self.figs["N"]]), self.apart_w])
+
+    def table(self, unit=None) -> pd.DataFrame:
+        """Annual totals of every site on its own surface (see :func:`network_table`)."""
+        unit = unit or self.unit_w.value
+        cat = self.session.study.inputs.catalogue
+        return pd.concat([network_table(r.years, cat, unit) for r in self.results.values()],
+                         ignore_index=True)
+
+    def _draw(self, create=False):
+        unit = self.unit_w.value
+        t = self.table(unit)
+        self.network = t
+        new = {"totals": figures.network_totals(t, unit)}
+        apart_rows = []
+        for el in ("S", "N"):
+            ranked, apart = network_ranking(t, el)
+            new[el] = figures.network_ranking_bars(ranked, apart, el, unit)
+            apart_rows.append(apart.assign(element=el))
+        apart = pd.concat(apart_rows, ignore_index=True)
+        for k, f in new.items():
+            if create:
+                self.figs[k] = figure_widget(f)
+            else:
+                refresh(self.figs[k], f)
+        text = table_html(apart, "every site has complete totals in every year")
+        if create:
+            self.apart_w = widgets.HTML()
+        self.apart_w.value = "<b>Not ranked (partial set of species or failing completeness)</b>" + text

@@ -1,0 +1,193 @@
+"""Widgets shared by the apps: a control per assumption, progress, in-place figures."""
+from __future__ import annotations
+
+import html
+import time
+
+import ipywidgets as widgets
+import pandas as pd
+import plotly.graph_objects as go
+import traitlets
+
+from ..budget import OMISSIONS
+from ..report import CAUTION
+from .assumptions import Assumption
+
+#: Width of a control's description [CSS].
+DESCRIPTION_WIDTH = "230px"
+#: Width of a control [CSS].
+CONTROL_WIDTH = "420px"
+#: Largest height of a table before it scrolls [CSS].
+TABLE_HEIGHT = "320px"
+#: Layout keys that never change between two figures of one kind (not resent).
+STATIC_LAYOUT = ("template",)
+
+
+def css_class(key: str) -> str:
+    """CSS class of the control of an assumption (for tests and styling)."""
+    return "wb-" + key.replace(".", "-").replace("_", "-").lower()
+
+
+class OptionalFloat(widgets.HBox):
+    """A number that may be unset: a check box ("set") and a number field.
+
+    ``value`` is None while the box is unchecked (the model or the catalogue decides).
+    """
+
+    value = traitlets.Float(None, allow_none=True)
+
+    def __init__(self, value=None, description="", bounds=(0.0, 1.0, 0.01), default=None, **kw):
+        lo, hi, step = bounds
+        start = default if default is not None else lo
+        self._box = widgets.Checkbox(value=value is not None, description=description,
+                                     indent=False, layout=widgets.Layout(width=DESCRIPTION_WIDTH))
+        self._num = widgets.BoundedFloatText(value=value if value is not None else start, min=lo,
+                                             max=hi, step=step, disabled=value is None,
+                                             layout=widgets.Layout(width="120px"))
+        super().__init__([self._box, self._num], **kw)
+        self._syncing = False
+        self.value = value
+        self._box.observe(self._from_parts, "value")
+        self._num.observe(self._from_parts, "value")
+        self.observe(self._to_parts, "value")
+
+    def _from_parts(self, change):
+        if self._syncing:
+            return
+        self._num.disabled = not self._box.value
+        new = float(self._num.value) if self._box.value else None
+        if new != self.value:
+            self.value = new
+
+    def _to_parts(self, change):
+        v = change["new"]
+        self._syncing = True
+        try:
+            if v is not None:
+                self._num.value = v
+            self._box.value = v is not None
+            self._num.disabled = v is None
+        finally:
+            self._syncing = False
+
+
+def make_control(a: Assumption, value):
+    """The widget of an assumption, showing `value`; its ``.value`` is the setting."""
+    style = {"description_width": DESCRIPTION_WIDTH}
+    layout = widgets.Layout(width=CONTROL_WIDTH)
+    if a.kind == "choice":
+        w = widgets.Dropdown(options=list(a.choices), value=value, description=a.label,
+                             style=style, layout=layout)
+    elif a.kind == "bool":
+        w = widgets.Checkbox(value=bool(value), description=a.label, indent=False, layout=layout)
+    elif a.kind == "float":
+        lo, hi, step = a.bounds
+        w = widgets.FloatSlider(value=value, min=lo, max=hi, step=step, description=a.label,
+                                continuous_update=False, readout_format=".3g", style=style,
+                                layout=layout)
+    elif a.kind == "optional_float":
+        w = OptionalFloat(value, a.label, a.bounds, default=a.sweep[0] if a.sweep else None,
+                          layout=layout)
+    else:
+        raise ValueError(f"unknown kind of assumption {a.kind!r}")
+    w.add_class(css_class(a.key))
+    w.tooltip = a.key
+    return w
+
+
+def set_quietly(w, value, handler):
+    """Set a control's value without calling `handler` (used when the site changes)."""
+    w.unobserve(handler, "value")
+    try:
+        w.value = value
+    finally:
+        w.observe(handler, "value")
+
+
+class Progress(widgets.HBox):
+    """A progress bar with a line of text; ``step(text, fraction)`` moves it."""
+
+    def __init__(self):
+        self.bar = widgets.FloatProgress(value=0.0, min=0.0, max=1.0, bar_style="info",
+                                         layout=widgets.Layout(width="240px"))
+        self.label = widgets.Label("")
+        super().__init__([self.bar, self.label])
+        self.add_class("wb-progress")
+        self.started = time.perf_counter()
+
+    def step(self, text, fraction=None):
+        if fraction is not None:
+            self.bar.value = max(0.0, min(1.0, float(fraction)))
+        self.bar.bar_style = "success" if self.bar.value >= 1.0 else "info"
+        self.label.value = text
+
+    def start(self, text):
+        self.started = time.perf_counter()
+        self.step(text, 0.05)
+
+    def done(self, text="ready"):
+        self.step(f"{text} ({time.perf_counter() - self.started:.2f} s)", 1.0)
+
+
+def refresh(widget: go.FigureWidget, fig: go.Figure):
+    """Copy a new figure into a displayed FigureWidget in one batched update.
+
+    Traces are updated in place when the new figure has the same number and types of
+    traces (the usual case); otherwise they are replaced.
+    """
+    same = len(widget.data) == len(fig.data) and all(
+        a.type == b.type for a, b in zip(widget.data, fig.data))
+    if not same:
+        with widget.batch_update():
+            widget.data = ()
+        widget.add_traces(list(fig.data))
+    layout = fig.layout.to_plotly_json()
+    for k in STATIC_LAYOUT:
+        layout.pop(k, None)
+    with widget.batch_update():
+        if same:
+            for old, new in zip(widget.data, fig.data):
+                props = new.to_plotly_json()
+                props.pop("type", None)
+                old.update(props, overwrite=True)
+        widget.layout.update(layout, overwrite=True)
+
+
+def figure_widget(fig: go.Figure) -> go.FigureWidget:
+    """A FigureWidget built from a figure (layout given at construction)."""
+    return go.FigureWidget(fig)
+
+
+def table_html(frame: pd.DataFrame, empty="none") -> str:
+    """A scrolling HTML table of a DataFrame (text escaped)."""
+    if frame is None or frame.empty:
+        return f"<p><i>{html.escape(empty)}</i></p>"
+    body = frame.to_html(index=False, border=0, escape=True, na_rep="–",
+                         float_format=lambda v: f"{v:.3g}")
+    return (f"<div style='max-height:{TABLE_HEIGHT};overflow:auto;font-size:85%'>{body}</div>")
+
+
+def caution_box() -> widgets.HTML:
+    """The cautions of the README and the report, and what the budget leaves out."""
+    left_out = "".join(f"<li><b>{html.escape(a)}</b>: {html.escape(b)}</li>" for a, b in OMISSIONS)
+    return widgets.HTML(
+        "<div style='background:#fff6e0;border-left:4px solid #E69F00;padding:.4em .8em;"
+        f"font-size:90%'><b>Caution.</b> {html.escape(CAUTION)}"
+        f"<details><summary>What the budget leaves out</summary><ul>{left_out}</ul></details>"
+        "</div>")
+
+
+def open_with_progress(cls, scenario_path, **kw):
+    """Open a scenario with a progress bar shown while the inputs are read, then `cls`."""
+    from .session import Session
+    from IPython.display import display
+    prog = Progress()
+    handle = display(prog, display_id=True)
+    prog.start("opening the scenario")
+    session = Session.open(scenario_path, progress=prog.step)
+    prog.step("first run", 0.85)
+    app = cls(session, progress=prog, **kw)
+    prog.done("ready")
+    if handle is not None:
+        handle.update(widgets.HTML(""))
+    return app

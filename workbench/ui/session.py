@@ -1,0 +1,273 @@
+"""A session of the apps: a study, its scenario, the runs of one site and some years.
+
+No widgets here: :class:`Session` loads a scenario, keeps one fast
+:class:`~workbench.pipeline.Study` per site and year range (a subset of the inputs, so
+that a change recomputes one site-year, not the network), and saves the settings as a
+scenario file or exports a run folder.  The apps in :mod:`workbench.ui.apps` call it.
+"""
+from __future__ import annotations
+
+import copy
+import dataclasses
+import datetime as _dt
+import os
+from collections import OrderedDict
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from ..budget import BudgetOptions
+from ..drydep import DryOptions
+from ..pipeline import Study
+from ..scenario import load_scenario, validate
+from ..wet import WetOptions
+from .assumptions import ASSUMPTIONS, Settings
+from .summaries import mean_totals
+
+#: Subset studies kept in memory (each holds its cached stages).
+MAX_STUDIES = 4
+#: Steps of the progress of opening a scenario: the four files and the first run.
+OPEN_STEPS = ("site catalogue", "precipitation samples", "air concentrations",
+              "hourly meteorology")
+
+
+def _say(progress, text, fraction=None):
+    if progress is not None:
+        progress(text, fraction)
+
+
+class Session:
+    """A loaded scenario and the subset studies the apps compute on.
+
+    Parameters
+    ----------
+    study : Study
+        The whole study (all sites and years), as from :meth:`Study.from_scenario`.
+    scenario : Scenario
+    """
+
+    def __init__(self, study: Study, scenario):
+        self.study = study
+        self.scenario = scenario
+        self.baseline = Settings.from_scenario(scenario)
+        self._studies: OrderedDict = OrderedDict()
+
+    # ------------------------------------------------------------------ opening
+    @classmethod
+    def open(cls, scenario_path, progress=None) -> "Session":
+        """Read a scenario and its inputs.
+
+        Parameters
+        ----------
+        scenario_path : str or Path
+        progress : callable, optional
+            ``progress(text, fraction)`` before each file (fraction in 0-1).
+        """
+        sc = load_scenario(scenario_path)
+        n = len(OPEN_STEPS)
+        seen = []
+
+        def step(text):
+            seen.append(text)
+            _say(progress, f"reading {text}", len(seen) / (n + 1))
+
+        study = Study.from_scenario(sc, progress=step)
+        _say(progress, "inputs read", n / (n + 1))
+        return cls(study, sc)
+
+    # ------------------------------------------------------------------ what there is
+    @property
+    def sites(self) -> list:
+        """Sites with precipitation, air or met data, in catalogue order."""
+        inp = self.study.inputs
+        have = set()
+        for ds in (inp.precipitation, inp.air, inp.met):
+            if ds is not None:
+                have |= set(np.unique(ds["site"].values.astype(str)))
+        return [s for s in inp.catalogue.ids if s in have]
+
+    def receptors(self, site) -> list:
+        """The site's own surface first, then its further receptors."""
+        return list(self.study.inputs.catalogue[site].surfaces)
+
+    def utc_offset(self, site) -> float:
+        return float(self.study.inputs.catalogue[site].utc_offset_h)
+
+    @property
+    def years(self) -> tuple:
+        """(first, last) calendar year with data, limited by the scenario's period."""
+        s0, e0 = self.study.span()
+        p = self.scenario.data["period"]
+        s0 = np.datetime64(p["start"]) if p.get("start") else s0
+        e0 = np.datetime64(p["end"]) if p.get("end") else e0
+        first = pd.Timestamp(s0).year
+        last = (pd.Timestamp(e0) - pd.Timedelta(1, "ns")).year
+        return int(first), int(last)
+
+    @staticmethod
+    def bounds(first_year, last_year) -> tuple:
+        """(start, end) instants of calendar years first..last (end exclusive)."""
+        return f"{int(first_year)}-01-01", f"{int(last_year) + 1}-01-01"
+
+    # ------------------------------------------------------------------ computing
+    def study_for(self, site, first_year, last_year) -> Study:
+        """The study of one site and some years (cached; at most :data:`MAX_STUDIES`)."""
+        key = (site, int(first_year), int(last_year))
+        if key in self._studies:
+            self._studies.move_to_end(key)
+            return self._studies[key]
+        start, end = self.bounds(first_year, last_year)
+        st = Study(self.study.inputs.subset([site], start, end), self.study.site_overrides)
+        self._studies[key] = st
+        while len(self._studies) > MAX_STUDIES:
+            self._studies.popitem(last=False)
+        return st
+
+    def run(self, settings: Settings, site, first_year, last_year, resolution="month"):
+        """Budget of one site and some years (``Result``; ``years`` always yearly)."""
+        start, end = self.bounds(first_year, last_year)
+        return self.study_for(site, first_year, last_year).run(
+            resolution=resolution, start=start, end=end, **settings.run_args())
+
+    def sweep(self, key, values, settings: Settings, site, first_year, last_year, receptor,
+              unit="kg/ha/yr", progress=None) -> pd.DataFrame:
+        """Totals for each value of one assumption, the others as in `settings`.
+
+        Returns
+        -------
+        pandas.DataFrame
+            ``value, total, rate`` [unit, mean of the years], ``status``.
+        """
+        a = ASSUMPTIONS[key]
+        rows = []
+        for i, v in enumerate(values):
+            _say(progress, f"{a.label} = {v}", i / max(len(values), 1))
+            res = self.run(a.set(settings, site, v), site, first_year, last_year, "year")
+            m = mean_totals(res.years, site, receptor, None, unit)
+            rows.append(pd.DataFrame({"value": [v] * len(m), "total": m.index,
+                                      "rate": m["value"].to_numpy(),
+                                      "status": m["status"].to_numpy()}))
+        _say(progress, "done", 1.0)
+        return pd.concat(rows, ignore_index=True)
+
+    # ------------------------------------------------------------------ saving
+    def scenario_document(self, settings: Settings, first_year=None, last_year=None,
+                          base_dir=None) -> tuple[dict, list]:
+        """The settings as a scenario (TOML-ready dict) and comment lines.
+
+        Only options that differ from the defaults are written.  Input paths are
+        relative to `base_dir` (absolute when None).  Particle size distributions
+        have no scenario key yet: they are written as comments (see the notes).
+        """
+        sc = self.scenario
+        inputs = {}
+        for role, p in sc.input_paths().items():
+            inputs[role] = str(p if base_dir is None else Path(os.path.relpath(p, base_dir)))
+        period = {"resolution": sc.data["period"]["resolution"]}
+        if first_year is not None:
+            period["start"], period["end"] = self.bounds(first_year, last_year)
+        else:
+            period.update({k: sc.data["period"][k] for k in ("start", "end")
+                           if sc.data["period"].get(k)})
+        raw = {"inputs": inputs, "period": period}
+        if sc.data["air"].get("reference_state"):
+            raw["air"] = {"reference_state": sc.data["air"]["reference_state"]}
+        comments = []
+        wet = _diff(WetOptions().to_dict(), settings.wet.to_dict())
+        if wet:
+            raw["wet"] = wet
+        dry_default, dry = DryOptions(), settings.dry
+        dry_out = {}
+        for f in dataclasses.fields(DryOptions):
+            new, old = getattr(dry, f.name), getattr(dry_default, f.name)
+            if new == old:
+                continue
+            if f.name == "particle_modes":
+                for sp, spec in sorted(new.items()):
+                    if spec != dry_default.mode_of(sp):
+                        comments.append(f"particle size of {sp} set in the app (no scenario key "
+                                        f"yet, not applied when read): {spec}")
+            elif f.name == "roughness" or new is None:
+                comments.append(f"dry.{f.name} set in the app (not written): {new!r}")
+            else:
+                dry_out[f.name] = list(new) if isinstance(new, tuple) else new
+        if settings.fixed_velocity:
+            dry_out["fixed_velocity"] = {k: float(v) for k, v in sorted(settings.fixed_velocity.items())}
+        if dry_out:
+            raw["dry"] = dry_out
+        budget = _diff(BudgetOptions().to_dict(), settings.budget.to_dict())
+        if budget:
+            raw["budget"] = budget
+        sites = {k: dict(v) for k, v in settings.overrides.items() if v}
+        if sites:
+            raw["sites"] = copy.deepcopy(sites)
+        return raw, comments
+
+    def save_scenario(self, path, settings: Settings, first_year=None, last_year=None) -> Path:
+        """Write the settings as a scenario file that :func:`load_scenario` reads back.
+
+        Raises
+        ------
+        ValueError
+            If the file read back does not give the same settings (it is then removed).
+        """
+        import tomli_w
+        path = Path(path).resolve()
+        path.parent.mkdir(parents=True, exist_ok=True)
+        raw, comments = self.scenario_document(settings, first_year, last_year, path.parent)
+        head = [f"# Scenario saved from the deposition workbench apps, "
+                f"{_dt.datetime.now(_dt.timezone.utc):%Y-%m-%dT%H:%MZ}.",
+                f"# Based on {self.scenario.path}; options not written keep their defaults."]
+        head += [f"# NOTE: {c}" for c in comments]
+        from ..writers import atomic_write
+        text = "\n".join(head) + "\n\n" + tomli_w.dumps(raw)
+        atomic_write(path, lambda tmp: tmp.write_text(text, encoding="utf-8"))
+        back = load_scenario(path)
+        if not _same(back, settings):
+            path.unlink(missing_ok=True)
+            raise ValueError("the saved scenario does not read back to the same settings")
+        return path
+
+    def export_run(self, out, settings: Settings, site, first_year, last_year,
+                   overwrite=False, progress=None) -> dict:
+        """Write the run folder of one site and some years (the files of ``workbench run``).
+
+        Returns
+        -------
+        dict
+            name -> Path of each file written.
+        """
+        from ..writers import write_run
+        raw, _ = self.scenario_document(settings, first_year, last_year, None)
+        scenario = validate(raw, None)
+        _say(progress, "computing", 0.2)
+        res = self.run(settings, site, first_year, last_year, raw["period"]["resolution"])
+        _say(progress, "writing", 0.6)
+        study = self.study_for(site, first_year, last_year)
+        written = write_run(res, study, scenario, out, overwrite=overwrite,
+                            progress=lambda text: _say(progress, f"writing {text}", 0.8))
+        _say(progress, "done", 1.0)
+        return written
+
+
+def _diff(default: dict, current: dict) -> dict:
+    """Entries of `current` that differ from `default` (TOML-ready values)."""
+    out = {}
+    for k, v in current.items():
+        if default.get(k) != v:
+            out[k] = [list(x) if isinstance(x, tuple) else x for x in v] if isinstance(v, (list, tuple)) else v
+    return out
+
+
+def _same(scenario, settings: Settings) -> bool:
+    """A scenario read back gives the settings (particle sizes aside)."""
+    dry_a = dataclasses.replace(scenario.options["dry"], particle_modes={})
+    dry_b = dataclasses.replace(settings.dry, particle_modes={})
+    if isinstance(dry_b.seasonal_category, tuple):
+        dry_a = dataclasses.replace(dry_a, seasonal_category=tuple(dry_a.seasonal_category))
+    sites_a = {k: v for k, v in scenario.data.get("sites", {}).items() if v}
+    sites_b = {k: v for k, v in settings.overrides.items() if v}
+    return (scenario.options["wet"] == settings.wet and scenario.options["budget"] == settings.budget
+            and dry_a == dry_b and dict(scenario.fixed_velocity) == dict(settings.fixed_velocity)
+            and sites_a == sites_b)

@@ -1,0 +1,414 @@
+"""Tables behind the figures: pure functions, a result Dataset in, a DataFrame out.
+
+The figures draw these tables and the apps print them, so that a number on screen can
+always be traced to a row here.  Rates are annual rates of the element (kg S or N per
+hectare per year, ...) as in ``budget.csv``; monthly amounts are per month.
+"""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from ..periods import MONTH_SEASON, SEASON_NAMES
+from ..units import element_deposition_in
+
+#: Reported units: label -> (deposition unit key of
+#: :func:`workbench.units.element_deposition_in`, axis text of a yearly rate, axis text
+#: of a monthly amount).  ``{el}`` is the element where the unit counts it.
+UNITS = {
+    "kg/ha/yr": ("kg_ha", "kg {el} ha-1 yr-1", "kg {el} ha-1 month-1"),
+    "eq/ha/yr": ("eq_ha", "eq ha-1 yr-1", "eq ha-1 month-1"),
+    "keq/ha/yr": ("keq_ha", "keq ha-1 yr-1", "keq ha-1 month-1"),
+    "mmol/m2/yr": ("mmol_m2", "mmol {el} m-2 yr-1", "mmol {el} m-2 month-1"),
+}
+#: Statuses that may be ranked beside each other (the whole set of species is there).
+RANKABLE = ("complete", "filled")
+#: Centimetres per metre (Vd is shown in cm s-1).
+CM_PER_M = 100.0
+#: Half an hour: the middle of an hour labelled by its end [ns].
+HALF_HOUR = np.timedelta64(30, "m")
+
+
+def axis_text(unit: str, monthly: bool = False, element: str | None = None) -> str:
+    """Axis title of a unit, e.g. ``kg S / N ha-1 yr-1`` [text]."""
+    text = UNITS[unit][2 if monthly else 1]
+    if "{el}" not in text:
+        return text
+    return text.format(el=element if element else "S / N")
+
+
+def to_unit(amount, element, unit: str):
+    """Deposition of an element [mol m-2] in a reported unit (see :data:`UNITS`)."""
+    return element_deposition_in(amount, element, UNITS[unit][0])
+
+
+def _as_list(periods, ds):
+    if periods is None:
+        return [str(p) for p in ds["period"].values]
+    if isinstance(periods, str):
+        return [periods]
+    return [str(p) for p in periods]
+
+
+def component_rates(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -> pd.DataFrame:
+    """Yearly rate of each budget component of one site and receptor.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        A budget (``Result.budget`` or ``Result.years``).
+    site, receptor : str
+    periods : str or list of str, optional
+        Period labels (default: all).
+    unit : str
+        A key of :data:`UNITS`.
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``period, element, pathway, species, value`` [unit], ``status``,
+        ``completeness`` [1]; NaN value where the component is missing.
+    """
+    labels = _as_list(periods, ds)
+    sel = ds.sel(site=site, receptor=receptor, period=labels)
+    dep = sel["deposition"].transpose("period", "component").values
+    el = sel["element"].values.astype(str)
+    fac = sel["annual_factor"].values[:, None]
+    value = np.where(el == "S", to_unit(dep, "S", unit), to_unit(dep, "N", unit)) * fac
+    n_p, n_c = dep.shape
+    return pd.DataFrame({
+        "period": np.repeat(labels, n_c), "element": np.tile(el, n_p),
+        "pathway": np.tile(sel["pathway"].values.astype(str), n_p),
+        "species": np.tile(sel["species"].values.astype(str), n_p),
+        "value": value.reshape(-1),
+        "status": sel["status"].transpose("period", "component").values.reshape(-1).astype(str),
+        "completeness": sel["completeness"].transpose("period", "component").values.reshape(-1)})
+
+
+def total_rates(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -> pd.DataFrame:
+    """Yearly rate of each total (``S_wet`` ... ``N_total``) of one site and receptor.
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``period, total, element, pathway, value`` [unit], ``status``,
+        ``missing`` (components without data, space-separated).
+    """
+    labels = _as_list(periods, ds)
+    sel = ds.sel(site=site, receptor=receptor, period=labels)
+    names = sel["total"].values.astype(str)
+    el = np.array([n.split("_")[0] for n in names])
+    dep = sel["total_deposition"].transpose("period", "total").values
+    fac = sel["annual_factor"].values[:, None]
+    value = np.where(el == "S", to_unit(dep, "S", unit), to_unit(dep, "N", unit)) * fac
+    n_p, n_t = dep.shape
+    return pd.DataFrame({
+        "period": np.repeat(labels, n_t), "total": np.tile(names, n_p),
+        "element": np.tile(el, n_p), "pathway": np.tile([n.split("_")[1] for n in names], n_p),
+        "value": value.reshape(-1),
+        "status": sel["total_status"].transpose("period", "total").values.reshape(-1).astype(str),
+        "missing": sel["total_missing_components"].transpose("period", "total").values
+        .reshape(-1).astype(str)})
+
+
+def mean_totals(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -> pd.DataFrame:
+    """Mean yearly rate of each total over some periods, with the worst status.
+
+    The mean is taken over every period given (not only those that pass completeness);
+    the status says whether any of them is flagged, partial or filled.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Index ``total``; columns ``value`` [unit], ``status``, ``n_periods``.
+    """
+    t = total_rates(ds, site, receptor, periods, unit)
+    order = {"complete": 0, "filled": 1, "partial": 2, "flagged": 3, "missing": 4}
+    g = t.groupby("total", sort=False)
+    out = pd.DataFrame({"value": g["value"].mean(),
+                        "status": g["status"].agg(lambda s: max(s, key=lambda v: order.get(v, 5))),
+                        "n_periods": g["value"].size()})
+    return out
+
+
+def monthly_amounts(ds_month: xr.Dataset, site, receptor, unit="kg/ha/yr") -> pd.DataFrame:
+    """Wet and dry deposition of S and N per month (amount in the month, not a rate).
+
+    Parameters
+    ----------
+    ds_month : xarray.Dataset
+        A budget at monthly resolution.
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``period, start, element, pathway, value`` [unit without "/yr", per month],
+        ``status``.
+    """
+    sel = ds_month.sel(site=site, receptor=receptor)
+    rows = []
+    starts = pd.to_datetime(sel["period_start"].values)
+    for el in ("S", "N"):
+        for pw in ("wet", "dry"):
+            name = f"{el}_{pw}"
+            dep = sel["total_deposition"].sel(total=name).values
+            rows.append(pd.DataFrame({
+                "period": sel["period"].values.astype(str), "start": starts, "element": el,
+                "pathway": pw, "value": to_unit(dep, el, unit),
+                "status": sel["total_status"].sel(total=name).values.astype(str)}))
+    return pd.concat(rows, ignore_index=True)
+
+
+def local_hour_and_season(times, utc_offset_h: float):
+    """Hour of day (0-23, local standard time, middle of the hour) and season.
+
+    Parameters
+    ----------
+    times : array of datetime64
+        Ends of the hours (UTC).
+    utc_offset_h : float
+        Offset of local standard time from UTC [h].
+
+    Returns
+    -------
+    hour : ndarray of int
+    season : ndarray of str
+        ``DJF``, ``MAM``, ``JJA`` or ``SON`` of the local date.
+    """
+    mid = pd.DatetimeIndex(np.asarray(times, "datetime64[ns]") - HALF_HOUR)
+    local = mid + pd.to_timedelta(float(utc_offset_h), unit="h")
+    return local.hour.to_numpy(), MONTH_SEASON[local.month.to_numpy()]
+
+
+def _by_hour_season(values: np.ndarray, hour, season, how: str):
+    """Statistic of `values` per (season, hour): DataFrame season, hour, value, n."""
+    frame = pd.DataFrame({"season": season, "hour": hour, "v": values})
+    frame = frame[np.isfinite(frame["v"])]
+    g = frame.groupby(["season", "hour"])["v"]
+    out = (g.median() if how == "median" else g.mean()).rename("value").to_frame()
+    out["n"] = g.size()
+    out = out.reset_index()
+    out["season"] = pd.Categorical(out["season"], SEASON_NAMES, ordered=True)
+    return out.sort_values(["season", "hour"]).reset_index(drop=True)
+
+
+def diurnal_velocity(vel: xr.Dataset, site, receptor, species, utc_offset_h=0.0) -> pd.DataFrame:
+    """Mean deposition velocity by hour of day and season, per species.
+
+    The mean of Vd (not of a resistance) is the flux-relevant average: the flux is
+    C Vd, so a mean Vd weights each hour as the flux does for a steady C.
+
+    Parameters
+    ----------
+    vel : xarray.Dataset
+        Output of :func:`workbench.drydep.velocities` (``vd_<species>`` [m s-1]).
+    species : list of str
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``species, season, hour, value`` [cm s-1], ``n`` (hours averaged).
+    """
+    sel = vel.sel(site=site, receptor=receptor)
+    hour, season = local_hour_and_season(sel["time"].values, utc_offset_h)
+    parts = []
+    for sp in species:
+        if f"vd_{sp}" not in sel:
+            continue
+        t = _by_hour_season(sel[f"vd_{sp}"].values * CM_PER_M, hour, season, "mean")
+        t.insert(0, "species", sp)
+        parts.append(t)
+    if not parts:
+        return pd.DataFrame(columns=["species", "season", "hour", "value", "n"])
+    return pd.concat(parts, ignore_index=True)
+
+
+def resistance_medians(vel: xr.Dataset, site, receptor, gas, utc_offset_h=0.0) -> pd.DataFrame:
+    """Median Ra, Rb, Rc and total resistance of a gas by hour of day and season.
+
+    Medians, not means: one calm night hour with Ra near its cap dominates a mean
+    resistance, while the median shows the typical hour (a mean resistance is
+    dominated by the night hours).
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``resistance`` (``ra``, ``rb``, ``rc``, ``total``), ``season, hour, value``
+        [s m-1], ``n``.
+    """
+    sel = vel.sel(site=site, receptor=receptor)
+    hour, season = local_hour_and_season(sel["time"].values, utc_offset_h)
+    parts = {"ra": sel["ra"].values, "rb": sel[f"rb_{gas}"].values, "rc": sel[f"rc_{gas}"].values}
+    parts["total"] = parts["ra"] + parts["rb"] + parts["rc"]
+    out = []
+    for name, values in parts.items():
+        t = _by_hour_season(np.asarray(values, float), hour, season, "median")
+        t.insert(0, "resistance", name)
+        out.append(t)
+    return pd.concat(out, ignore_index=True)
+
+
+def excluded_samples(screened: xr.Dataset, site=None, statuses=("excluded", "flagged")) -> pd.DataFrame:
+    """Samples not used as they are, with their reasons (one row per sample).
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``site, start, end, line, status, reasons, gauge_depth`` [mm].
+    """
+    if screened is None:
+        return pd.DataFrame(columns=["site", "start", "end", "line", "status", "reasons",
+                                     "gauge_depth"])
+    frame = pd.DataFrame({
+        "site": screened["site"].values.astype(str),
+        "start": pd.to_datetime(screened["start"].values),
+        "end": pd.to_datetime(screened["end"].values),
+        "line": screened["line"].values,
+        "status": screened["status"].values.astype(str),
+        "reasons": screened["reasons"].values.astype(str),
+        "gauge_depth": screened["gauge_depth"].values.astype(float)})
+    keep = frame["status"].isin(statuses)
+    if site is not None:
+        keep &= frame["site"] == site
+    order = {s: i for i, s in enumerate(statuses)}
+    frame = frame[keep].copy()
+    frame["_o"] = frame["status"].map(order)
+    return frame.sort_values(["_o", "start"]).drop(columns="_o").reset_index(drop=True)
+
+
+def reason_counts(screened: xr.Dataset, site=None) -> pd.DataFrame:
+    """Samples per reason and status (a sample with two reasons counts under both).
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``reason, status, samples``.
+    """
+    t = excluded_samples(screened, site)
+    if t.empty:
+        return pd.DataFrame(columns=["reason", "status", "samples"])
+    t = t.assign(reason=t["reasons"].where(t["reasons"] != "", "(no reason given)")
+                 .str.split("; ")).explode("reason")
+    return (t.groupby(["reason", "status"]).size().rename("samples").reset_index()
+            .sort_values("samples", ascending=False, kind="stable").reset_index(drop=True))
+
+
+#: Decimals of the change line: at least this many, more until the two numbers
+#: differ (up to the most); numbers of 1000 and more are shown whole.
+DECIMALS, MAX_DECIMALS = 1, 4
+#: From this size on a number is shown without decimals.
+WHOLE_FROM = 1000.0
+
+
+def _fmt(v: float, decimals=DECIMALS) -> str:
+    if not np.isfinite(v):
+        return "n/a"
+    return f"{v:,.0f}" if abs(v) >= WHOLE_FROM else f"{v:.{decimals}f}"
+
+
+def _decimals(old: float, new: float) -> int:
+    """Fewest decimals (from :data:`DECIMALS`) that tell `old` and `new` apart."""
+    for d in range(DECIMALS, MAX_DECIMALS + 1):
+        if _fmt(old, d) != _fmt(new, d):
+            return d
+    return DECIMALS
+
+
+def change_line(before: pd.DataFrame | None, after: pd.DataFrame, unit="kg/ha/yr",
+                totals=("S_total", "N_total")) -> str:
+    """One line of text with the change of each total, e.g.
+    ``S total 8.3 -> 7.9 kg/ha/yr, -4.8 %``.
+
+    Parameters
+    ----------
+    before, after : pandas.DataFrame
+        Outputs of :func:`mean_totals` (index ``total``) before and after a change;
+        `before` None gives the current values only.
+
+    >>> a = pd.DataFrame({"value": [8.3], "status": ["complete"]}, index=["S_total"])
+    >>> b = pd.DataFrame({"value": [7.9], "status": ["complete"]}, index=["S_total"])
+    >>> change_line(a, b, totals=("S_total",))
+    'S total 8.3 -> 7.9 kg/ha/yr, -4.8 %'
+    """
+    parts = []
+    for name in totals:
+        el, pw = name.split("_")
+        label = f"{el} {pw}"
+        new = float(after.loc[name, "value"]) if name in after.index else np.nan
+        st = after.loc[name, "status"] if name in after.index else "missing"
+        tail = "" if st == "complete" else f" ({st})"
+        if before is None or name not in before.index:
+            parts.append(f"{label} {_fmt(new)} {unit}{tail}")
+            continue
+        old = float(before.loc[name, "value"])
+        d = _decimals(old, new) if np.isfinite(old) and np.isfinite(new) else DECIMALS
+        if np.isfinite(old) and np.isfinite(new) and old != 0:
+            pct = f", {100.0 * (new - old) / old:+.1f} %"
+        elif np.isfinite(old) and np.isfinite(new):
+            pct = ", no change" if new == old else ""
+        else:
+            pct = ""
+        parts.append(f"{label} {_fmt(old, d)} -> {_fmt(new, d)} {unit}{pct}{tail}")
+    return "; ".join(parts)
+
+
+def network_table(year_ds: xr.Dataset, catalogue=None, unit="kg/ha/yr") -> pd.DataFrame:
+    """Annual totals of every site on its own surface, over the years.
+
+    Parameters
+    ----------
+    year_ds : xarray.Dataset
+        ``Result.years`` of a run over several sites.
+    catalogue : SiteCatalogue, optional
+        Gives each site's own land use (the receptor shown); default the first active
+        receptor of the site.
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``site, receptor, period, element, value`` [unit], ``status``, ``missing``,
+        ``rankable`` (bool: the total holds every species and passes completeness).
+    """
+    rows = []
+    for site in year_ds["site"].values.astype(str):
+        if catalogue is not None and site in catalogue.ids:
+            rec = catalogue[site].land_use
+        else:
+            act = year_ds["active"].sel(site=site).values
+            rec = str(year_ds["receptor"].values[np.flatnonzero(act)[0]])
+        t = total_rates(year_ds, site, rec, None, unit)
+        t = t[t["pathway"] == "total"].assign(site=site, receptor=rec)
+        rows.append(t)
+    t = pd.concat(rows, ignore_index=True)
+    t["rankable"] = t["status"].isin(RANKABLE) & np.isfinite(t["value"])
+    return t[["site", "receptor", "period", "element", "value", "status", "missing", "rankable"]]
+
+
+def network_ranking(table: pd.DataFrame, element: str) -> tuple[pd.DataFrame, pd.DataFrame]:
+    """Sites ranked by their mean annual total, complete totals only.
+
+    A site enters the ranking when every one of its years is rankable (complete or
+    filled); the others are listed apart, never ranked beside complete ones.
+
+    Returns
+    -------
+    ranked : pandas.DataFrame
+        ``rank, site, receptor, value`` [unit], ``years``, highest first.
+    apart : pandas.DataFrame
+        ``site, receptor, value, years, why`` (statuses and missing species).
+    """
+    t = table[table["element"] == element]
+    g = t.groupby(["site", "receptor"], sort=False)
+    summ = g.agg(value=("value", "mean"), years=("period", lambda p: " ".join(map(str, p))),
+                 ok=("rankable", "all")).reset_index()
+    why = g.apply(lambda d: "; ".join(
+        f"{p}: {s}" + (f" (no {m})" if m else "")
+        for p, s, m, r in zip(d["period"], d["status"], d["missing"], d["rankable"]) if not r),
+        include_groups=False).rename("why").reset_index()
+    summ = summ.merge(why, on=["site", "receptor"])
+    ranked = summ[summ["ok"]].sort_values("value", ascending=False).reset_index(drop=True)
+    ranked.insert(0, "rank", np.arange(1, len(ranked) + 1))
+    apart = summ[~summ["ok"]].reset_index(drop=True)
+    return ranked[["rank", "site", "receptor", "value", "years"]], \
+        apart[["site", "receptor", "value", "years", "why"]]
