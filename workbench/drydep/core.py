@@ -45,6 +45,8 @@ from .options import DryOptions
 
 #: Start value of the Charnock iteration [m] (numerical device).
 CHARNOCK_START_Z0 = 1e-4
+#: The met time stamp ends the hour; the sun is taken at its middle.
+HALF_HOUR = np.timedelta64(30, "m")
 #: Smallest heat flux passed to the unstable solver [W m-2] (numerical device).
 _MIN_DAY_FLUX = 1e-3
 #: Codes of ``surface_layer_method``.
@@ -124,7 +126,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     snow = st("snow_cover")
 
     # --- 2. sun and clouds ---------------------------------------------------------------
-    doy, hour = time_parts(block["time"].values - np.timedelta64(30, "m"))
+    doy, hour = time_parts(block["time"].values - HALF_HOUR)
     sin_el = solar_elevation_sine(doy[None, None, :], hour[None, None, :], site("latitude"),
                                   site("longitude"))
     n_meas = st("cloud_cover")
