@@ -27,6 +27,11 @@ from .summaries import mean_totals
 
 #: Subset studies kept in memory (each holds its cached stages).
 MAX_STUDIES = 4
+#: Days of data kept on each side of the years of a subset study.  Without them an air
+#: sample that straddles New Year would be counted whole in the year (the dry flux
+#: shares a straddling sample by the hours of met it sees), some % too much dry
+#: deposition; longer than the longest air or precipitation sample (a month).
+SUBSET_MARGIN_DAYS = 45
 #: Steps of the progress of opening a scenario: the four files and the first run.
 OPEN_STEPS = ("site catalogue", "precipitation samples", "air concentrations",
               "hourly meteorology")
@@ -112,13 +117,20 @@ class Session:
 
     # ------------------------------------------------------------------ computing
     def study_for(self, site, first_year, last_year) -> Study:
-        """The study of one site and some years (cached; at most :data:`MAX_STUDIES`)."""
+        """The study of one site and some years (cached; at most :data:`MAX_STUDIES`).
+
+        The inputs are cut to the site and the years with :data:`SUBSET_MARGIN_DAYS` on
+        each side; a run then reports the years only.
+        """
         key = (site, int(first_year), int(last_year))
         if key in self._studies:
             self._studies.move_to_end(key)
             return self._studies[key]
         start, end = self.bounds(first_year, last_year)
-        st = Study(self.study.inputs.subset([site], start, end), self.study.site_overrides)
+        margin = np.timedelta64(SUBSET_MARGIN_DAYS, "D")
+        st = Study(self.study.inputs.subset([site], np.datetime64(start) - margin,
+                                            np.datetime64(end) + margin),
+                   self.study.site_overrides)
         self._studies[key] = st
         while len(self._studies) > MAX_STUDIES:
             self._studies.popitem(last=False)

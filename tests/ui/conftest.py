@@ -1,0 +1,26 @@
+"""Fixtures of the UI tests: small copies of the invented demo scenario, opened once."""
+import warnings
+
+import pytest
+
+from ui.demo_subset import write_demo_subset
+
+
+@pytest.fixture(scope="session")
+def ridge_2021(tmp_path_factory):
+    """Scenario file of one site-year of the demo network (ridge, 2021)."""
+    return write_demo_subset(tmp_path_factory.mktemp("ridge_2021"), ("ridge",), 2021, 2021)
+
+
+@pytest.fixture(scope="session")
+def two_sites_2021(tmp_path_factory):
+    """Scenario file of two demo sites in 2021: ridge (NO2 measured) and mere (no NO2)."""
+    return write_demo_subset(tmp_path_factory.mktemp("two_sites"), ("ridge", "mere"), 2021, 2021)
+
+
+@pytest.fixture(scope="session")
+def session(ridge_2021):
+    from workbench.ui.session import Session
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        return Session.open(ridge_2021)

@@ -1,0 +1,183 @@
+"""Widget tests of the apps: build an app, set a control, check the figure's data.
+
+The expected numbers come from the flux modules called directly (wet chain, the
+budget's pair bracket, a fresh study), from the definition of the deposition velocity
+(F = Vd C, so the dry flux is linear in a fixed Vd; common practice), and from molar
+masses of ``periodictable``.  Timings are not asserted here (see benchmarks/).
+"""
+import dataclasses
+import warnings
+
+import numpy as np
+import periodictable
+import pytest
+
+from workbench.ui.apps import NetworkOverview, SensitivityExplorer, SiteExplorer
+from workbench.ui.session import Session
+
+#: kg ha-1 per (mol m-2 x g mol-1): 1e-3 kg/g x 1e4 m2/ha.
+KG_HA_PER_G_M2 = 10.0
+pytestmark = pytest.mark.filterwarnings("ignore::RuntimeWarning")
+
+
+@pytest.fixture()
+def app(session):
+    a = SiteExplorer(session, site="ridge", years=(2021, 2021))
+    yield a
+    a.reset()
+
+
+def _bar(app, name):
+    return next(t for t in app.figs["budget"].data if t.name == name)
+
+
+def _y(app, name):
+    return _bar(app, name).y[0]
+
+
+def test_sea_salt_basis_gives_the_wet_chain_total_sulfate(app):
+    """Total-sulfate basis: the wet SO4 bar is dep_SO4 of the wet chain, in kg S/ha."""
+    from workbench.wet import screen, wet_deposition
+    st = app.study
+    before = _y(app, "wet SO4")
+    app.controls["budget.sulfate_basis"].value = "total"
+    wet_opt = app.settings.wet
+    scr = screen(st.inputs.precipitation, wet_opt, met=st.inputs.met)
+    periods = st.periods("year", "2021-01-01", "2022-01-01")
+    wd = wet_deposition(scr, periods, wet_opt, met=st.inputs.met)
+    expected = float(wd["dep_SO4"].sel(site="ridge").values[0]) * periodictable.S.mass * KG_HA_PER_G_M2
+    assert _y(app, "wet SO4") == pytest.approx(expected, rel=1e-9)
+    nss = float(wd["dep_nssSO4"].sel(site="ridge").values[0]) * periodictable.S.mass * KG_HA_PER_G_M2
+    assert before == pytest.approx(nss, rel=1e-9) and before < expected
+    assert "S total" in app.change_w.value and "%" in app.change_w.value
+
+
+def test_wet_option_change_never_recomputes_velocities(app):
+    counts = dict(app.study.counts)
+    app.controls["wet.detection_limit"].value = "zero"
+    app.controls["wet.on_ion_balance_fail"].value = "exclude"
+    assert app.study.counts["velocities"] == counts["velocities"]
+    assert app.study.counts["screened"] == counts["screened"] + 2
+
+
+def test_view_changes_do_not_recompute(app):
+    counts = dict(app.study.counts)
+    app.unit_w.value = "eq/ha/yr"
+    app.receptor_w.value = "grass"
+    assert app.study.counts == counts
+    app.unit_w.value = "kg/ha/yr"
+
+
+def test_fixed_velocity_what_if_is_linear_and_equals_c_times_vd(app):
+    """Fixed Vd v [cm/s]: dry SO2 = v/100 x sum of C x overlap with the year (F = Vd C)."""
+    app.controls["fixed_velocity.SO2"].value = 1.0
+    y1 = _y(app, "dry SO2")
+    app.controls["fixed_velocity.SO2"].value = 2.0
+    assert _y(app, "dry SO2") == pytest.approx(2 * y1, rel=1e-9)
+    air = app.study.inputs.air
+    t0, t1 = np.datetime64("2021-01-01"), np.datetime64("2022-01-01")
+    overlap_s = np.clip((np.minimum(air["end"].values, t1) - np.maximum(air["start"].values, t0))
+                        / np.timedelta64(1, "s"), 0, None)
+    mol_m2 = 0.01 * np.nansum(air["SO2"].values * overlap_s)     # 1 cm/s
+    assert y1 == pytest.approx(mol_m2 * periodictable.S.mass * KG_HA_PER_G_M2, rel=1e-6)
+    app.controls["fixed_velocity.SO2"].value = None
+    assert app.settings.fixed_velocity == {}
+
+
+def test_pair_split_all_gas_equals_the_reported_bracket(app):
+    """All nitrate as HNO3: the dry HNO3 bar is the budget's all-gas bracket."""
+    bracket = float(app.result.years["bracket_nitrate_all_gas"].sel(
+        site="ridge", receptor="conifer_forest").values[0])
+    app.controls["budget.pair_split"].value = "all_gas"
+    assert _y(app, "dry HNO3") == pytest.approx(bracket * periodictable.N.mass * KG_HA_PER_G_M2,
+                                                rel=1e-9)
+    assert _y(app, "dry pNO3") == pytest.approx(0.0, abs=1e-12)
+
+
+def test_roughness_override_recomputes_velocities_as_the_study_does(app, session):
+    counts = dict(app.study.counts)
+    vd_before = list(app.figs["deposition velocity"].data[0].y)
+    app.controls["site.roughness_length_m"].value = 0.3
+    assert app.study.counts["velocities"] == counts["velocities"] + 1
+    fresh = Session(session.study, session.scenario)
+    res = fresh.run(app.settings, "ridge", 2021, 2021, "year")
+    dep = res.years["deposition"].sel(site="ridge", receptor="conifer_forest",
+                                      component="S/dry/SO2").values[0]
+    assert _y(app, "dry SO2") == pytest.approx(dep * periodictable.S.mass * KG_HA_PER_G_M2, rel=1e-9)
+    app.tabs.selected_index = 1
+    assert list(app.figs["deposition velocity"].data[0].y) != vd_before
+
+
+def test_excluding_failed_ion_balances_lists_them_with_reasons(app):
+    """Every sample the wet chain excludes is in the table, with the ion-balance reason."""
+    from workbench.wet import screen
+    n_before = app.excluded_w.value.count("<td>excluded</td>")
+    app.controls["wet.on_ion_balance_fail"].value = "exclude"
+    opts = dataclasses.replace(app.session.baseline.wet, on_ion_balance_fail="exclude")
+    scr = screen(app.study.inputs.precipitation, opts, met=app.study.inputs.met)
+    excluded = scr["status"].values == "excluded"
+    by_balance = excluded & np.char.find(scr["reasons"].values.astype(str),
+                                         "ion balance outside acceptance") >= 0
+    assert by_balance.sum() >= 1
+    assert app.excluded_w.value.count("<td>excluded</td>") == int(excluded.sum()) >= n_before
+    assert "ion balance outside acceptance" in app.excluded_w.value
+    app.tabs.selected_index = 3
+    excl = next(t for t in app.figs["ion balance"].data if t.name.startswith("excluded"))
+    plotted = excluded & np.isfinite(scr["cation_sum"].values) & np.isfinite(scr["anion_sum"].values)
+    assert excl.name == f"excluded ({int(plotted.sum())})"
+
+
+def test_save_scenario_reads_back_and_export_writes_the_run_files(app, tmp_path):
+    from workbench.cli import run_scenario
+    from workbench.scenario import load_scenario
+    app.controls["wet.detection_limit"].value = "limit"
+    app.controls["fixed_velocity.NH3"].value = 0.8
+    app.controls["budget.pair_split"].value = "all_particle"
+    app.controls["site.roughness_length_m"].value = 0.9
+    path = app.save_scenario(tmp_path / "colleague.toml")
+    back = load_scenario(path)
+    assert back.options["wet"].detection_limit == "limit"
+    assert back.options["budget"].pair_split == "all_particle"
+    assert back.fixed_velocity == {"NH3": 0.8}
+    assert back.data["sites"]["ridge"]["roughness_length_m"] == 0.9
+    written = app.export_run(tmp_path / "run")
+    cli_written, cli_result, _ = run_scenario(path, tmp_path / "cli_run", quiet=True)
+    assert set(written) == set(cli_written)
+    import pandas as pd
+    ours = pd.read_csv(written["budget.csv"])
+    theirs = pd.read_csv(cli_written["budget.csv"])
+    key = ["site", "receptor", "period", "element", "pathway", "species"]
+    merged = ours.merge(theirs, on=key, suffixes=("", "_cli"))
+    merged = merged[merged["site"] == "ridge"]
+    assert len(merged) == len(ours[ours["site"] == "ridge"]) > 0
+    np.testing.assert_allclose(merged["flux_kg_ha_yr"], merged["flux_kg_ha_yr_cli"], rtol=1e-9)
+
+
+def test_sensitivity_explorer_marks_the_baseline_and_is_linear_in_vd(session):
+    app = SensitivityExplorer(session, site="ridge", years=(2021, 2021), run=False)
+    app.key_w.value = "fixed_velocity.SO2"
+    app.range_w.value = (0.2, 1.0)
+    app.steps_w.value = 3
+    t = app.run()
+    s_dry = t[t["total"] == "S_dry"].set_index("value")["rate"]
+    assert list(s_dry.index) == [0.2, 0.6, 1.0]
+    # S dry = SO2 (linear in its Vd) + pSO4 (unchanged): equal steps give equal rises
+    assert s_dry[1.0] - s_dry[0.6] == pytest.approx(s_dry[0.6] - s_dry[0.2], rel=1e-9)
+    assert "model" in app.note_w.value
+    assert any(s.type == "line" for s in app.fig.layout.shapes)   # the baseline line
+    app.key_w.value = "budget.sulfate_basis"
+    t = app.run()
+    assert set(t["value"]) == {"nss", "total"}
+    star = [tr for tr in app.fig.data if tr.name == "baseline"]
+    assert list(star[0].x) == ["nss"]
+
+
+def test_network_overview_never_ranks_a_partial_total(two_sites_2021):
+    s = Session.open(two_sites_2021)
+    app = NetworkOverview(s)
+    t = app.network
+    mere_n = t[(t["site"] == "mere") & (t["element"] == "N")].iloc[0]
+    assert mere_n["status"] == "partial" and "NO2" in mere_n["missing"]
+    ranked_n = app.figs["N"].data[0].y
+    assert not any("mere" in y for y in ranked_n) and any("ridge" in y for y in ranked_n)
+    assert "mere" in app.apart_w.value

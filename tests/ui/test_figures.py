@@ -1,0 +1,186 @@
+"""Figures and the tables behind them: every plotted number traced to its source.
+
+Sources: the budget rows of :func:`workbench.tables.budget_table` (the run's CSV);
+molar masses from ``periodictable`` (IUPAC standard atomic weights); the ion-balance
+tiers of WMO GAW Report No. 160 (2004), Section 8 (from memory, as in the wet
+options); hand-built velocity and resistance series.
+"""
+import numpy as np
+import pandas as pd
+import periodictable
+import pytest
+import xarray as xr
+
+from workbench.ui import figures, figures_dry, figures_wet, summaries
+from workbench.ui.palette import STATUS_OPACITY, STATUS_PATTERN
+
+
+@pytest.fixture(scope="module")
+def result(session):
+    return session.run(session.baseline, "ridge", 2021, 2021, "month")
+
+
+def _bars(fig):
+    return {tr.name: tr for tr in fig.data if tr.type == "bar"}
+
+
+def test_budget_bars_match_the_budget_rows(result):
+    """Each bar is the component's flux_kg_ha_yr row of budget.csv (same run)."""
+    from workbench.tables import budget_table
+    rows = budget_table(result.years)
+    rows = rows[(rows["site"] == "ridge") & (rows["receptor"] == "grass") & (rows["species"] != "all")]
+    fig = figures.budget_bars(result.years, "ridge", "grass")
+    bars = _bars(fig)
+    assert len(bars) == 10
+    for _, r in rows.iterrows():
+        y = bars[f"{r['pathway']} {r['species']}"].y[0]
+        if np.isfinite(r["flux_kg_ha_yr"]):
+            assert y == pytest.approx(r["flux_kg_ha_yr"], rel=1e-12)
+        else:
+            assert y is None
+
+
+def test_budget_bars_in_equivalents_use_the_molar_masses(result):
+    """kg S -> eq: x 2 eq/mol / M(S); kg N -> eq: x 1 eq/mol / M(N) (periodictable)."""
+    kg = _bars(figures.budget_bars(result.years, "ridge", "conifer_forest", None, "kg/ha/yr"))
+    eq = _bars(figures.budget_bars(result.years, "ridge", "conifer_forest", None, "eq/ha/yr"))
+    keq = _bars(figures.budget_bars(result.years, "ridge", "conifer_forest", None, "keq/ha/yr"))
+    g_per_kg = 1000.0
+    assert eq["wet SO4"].y[0] == pytest.approx(kg["wet SO4"].y[0] * 2 * g_per_kg / periodictable.S.mass,
+                                               rel=1e-3)
+    assert eq["wet NO3"].y[0] == pytest.approx(kg["wet NO3"].y[0] * g_per_kg / periodictable.N.mass,
+                                               rel=1e-3)
+    assert keq["dry NH3"].y[0] == pytest.approx(eq["dry NH3"].y[0] / 1000.0, rel=1e-12)
+
+
+def test_budget_bars_show_status_by_opacity_and_pattern(result):
+    ds = result.years.copy(deep=True)
+    st = ds["status"].values
+    st[0, :, 0, 1] = "flagged"          # dry SO2 at every receptor
+    ds["status"] = (ds["status"].dims, st)
+    bar = _bars(figures.budget_bars(ds, "ridge", "conifer_forest"))["dry SO2"]
+    assert bar.marker.opacity[0] == STATUS_OPACITY["flagged"] < 1
+    assert bar.marker.pattern.shape[0] == STATUS_PATTERN["flagged"] != ""
+    assert "flagged" in bar.customdata[0]
+
+
+def test_budget_bars_one_bar_per_element_and_year(result):
+    fig = figures.budget_bars(result.years, "ridge", "grass")
+    total = [t for t in fig.data if t.name == "total"][0]
+    assert list(total.x[0]) == ["S", "N"] and list(total.x[1]) == ["2021", "2021"]
+    t = summaries.total_rates(result.years, "ridge", "grass")
+    s_total = t[(t["total"] == "S_total")]["value"].iloc[0]
+    assert total.y[0] == pytest.approx(s_total)
+
+
+def test_monthly_amounts_are_amounts_not_rates(result):
+    """A month's amount x (hours in the year / hours in the month) is its yearly rate."""
+    m = summaries.monthly_amounts(result.budget, "ridge", "grass")
+    rates = summaries.total_rates(result.budget, "ridge", "grass")
+    jan = m[(m["period"] == "2021-01") & (m["element"] == "S") & (m["pathway"] == "wet")]["value"].iloc[0]
+    jan_rate = rates[(rates["period"] == "2021-01") & (rates["total"] == "S_wet")]["value"].iloc[0]
+    assert jan_rate == pytest.approx(jan * 8760 / 744)
+    fig = figures.monthly_fluxes(result.budget, "ridge", "grass")
+    assert [t.name for t in fig.data] == ["S wet", "S dry", "N wet", "N dry"]
+    assert fig.data[0].y[0] == pytest.approx(jan)
+
+
+def _velocities(values_by_local_hour, utc_offset_h=1, days=365):
+    """Hourly vd_SO2, ra, rb_SO2, rc_SO2 whose value depends on the local hour only."""
+    t = pd.date_range("2021-01-01T01:00", periods=24 * days, freq="h")
+    local_hour = ((t - pd.Timedelta(30, "min")) + pd.Timedelta(utc_offset_h, "h")).hour.to_numpy()
+    v = np.asarray(values_by_local_hour, float)[local_hour]
+    arr = lambda a: (("site", "receptor", "time"), a[None, None, :])
+    return xr.Dataset({"vd_SO2": arr(v), "ra": arr(np.full(v.shape, 20.0)),
+                       "rb_SO2": arr(np.full(v.shape, 10.0)), "rc_SO2": arr(1.0 / v - 30.0)},
+                      coords={"site": ["a"], "receptor": ["grass"], "time": t.values})
+
+
+def test_diurnal_velocity_by_local_hour():
+    """Vd = 0.002 m/s at night, 0.01 m/s from 10 to 14 local: the cycle in cm/s."""
+    per_hour = np.where((np.arange(24) >= 10) & (np.arange(24) <= 14), 0.01, 0.002)
+    vel = _velocities(per_hour, utc_offset_h=1)
+    t = summaries.diurnal_velocity(vel, "a", "grass", ["SO2"], utc_offset_h=1)
+    jja = t[t["season"] == "JJA"].set_index("hour")["value"]
+    assert jja[12] == pytest.approx(1.0) and jja[3] == pytest.approx(0.2)
+    assert jja.idxmax() in range(10, 15)
+    fig = figures_dry.velocity_diurnal(vel, "a", "grass", ["SO2"], utc_offset_h=1)
+    assert len(fig.data) == 4                     # one per season
+    assert max(fig.data[2].y) == pytest.approx(1.0)
+
+
+def test_resistance_medians_add_up():
+    """Ra + Rb + Rc = 1 / Vd hour by hour, so the medians of the sum are 1 / Vd."""
+    per_hour = np.linspace(0.002, 0.012, 24)
+    vel = _velocities(per_hour, utc_offset_h=0)
+    t = summaries.resistance_medians(vel, "a", "grass", "SO2", 0)
+    tot = t[(t["resistance"] == "total") & (t["season"] == "MAM")].set_index("hour")["value"]
+    np.testing.assert_allclose(tot.to_numpy(), 1.0 / per_hour, rtol=1e-9)
+    ra = t[(t["resistance"] == "ra")]["value"]
+    assert (ra == 20.0).all()
+    fig = figures_dry.resistance_breakdown(vel, "a", "grass", "SO2", 0)
+    assert fig.layout.yaxis.type == "log" and len(fig.data) == 16
+
+
+def test_ion_balance_envelope_edge_by_hand():
+    """GAW tiers (WMO GAW Report No. 160, 2004, from memory): |ID| <= 60 % up to CE + AN
+    = 50 ueq/L.  At CE + AN = 40 the upper edge is CE = 40 x 1.6 / 2 = 32, AN = 8."""
+    tiers = ((50.0, 60.0), (100.0, 30.0), (500.0, 15.0), (np.inf, 10.0))
+    an, ce = figures_wet.ion_balance_envelope(tiers, 1000.0)
+    n = len(an) // 2
+    s = an[:n] + ce[:n]
+    i = np.argmin(abs(s - 40.0))
+    assert ce[i] / s[i] == pytest.approx(0.8) and an[i] / s[i] == pytest.approx(0.2)
+    j = np.argmin(abs(s - 600.0))
+    assert ce[j] / s[j] == pytest.approx(0.55)     # 10 % tier: (1 + 0.1) / 2
+
+
+def test_ion_balance_points_are_the_screened_sums(result):
+    fig = figures_wet.ion_balance(result.screened, "ridge")
+    used = [t for t in fig.data if t.name.startswith("used")][0]
+    scr = result.screened
+    m = (scr["status"].values == "used") & np.isfinite(scr["cation_sum"].values)
+    np.testing.assert_allclose(np.sort(used.y), np.sort(scr["cation_sum"].values[m]))
+    cap = figures_wet.capture_efficiency(result.screened, "ridge")
+    assert cap.layout.xaxis.type == "log"
+
+
+def test_excluded_samples_table_has_every_reason(result):
+    t = summaries.excluded_samples(result.screened, "ridge")
+    scr = result.screened
+    assert len(t) == int(np.isin(scr["status"].values, ["excluded", "flagged"]).sum())
+    assert (t["reasons"] != "").all()
+    counts = summaries.reason_counts(result.screened, "ridge")
+    assert counts["samples"].sum() >= len(t)
+
+
+def test_change_line_format():
+    a = pd.DataFrame({"value": [8.3, 20.0], "status": ["complete", "partial"]},
+                     index=["S_total", "N_total"])
+    b = pd.DataFrame({"value": [7.9, 20.0], "status": ["complete", "partial"]},
+                     index=["S_total", "N_total"])
+    line = summaries.change_line(a, b)
+    assert line == ("S total 8.3 -> 7.9 kg/ha/yr, -4.8 %; "
+                    "N total 20.0 -> 20.0 kg/ha/yr, +0.0 % (partial)")
+    # more decimals until the two numbers differ
+    c = b.assign(value=[7.94, 20.0])
+    d = b.assign(value=[7.91, 20.0])
+    assert summaries.change_line(c, d, totals=("S_total",)).startswith("S total 7.94 -> 7.91")
+
+
+def test_partial_totals_are_never_ranked():
+    table = pd.DataFrame({
+        "site": ["a", "a", "b", "b", "c", "c"], "receptor": "grass",
+        "period": ["2020", "2021"] * 3, "element": "N",
+        "value": [10.0, 12.0, 30.0, 31.0, 20.0, 22.0],
+        "status": ["complete", "complete", "partial", "complete", "complete", "filled"],
+        "missing": ["", "", "NO2", "", "", ""]})
+    table["rankable"] = table["status"].isin(summaries.RANKABLE)
+    ranked, apart = summaries.network_ranking(table, "N")
+    assert list(ranked["site"]) == ["c", "a"] and list(ranked["rank"]) == [1, 2]
+    assert list(apart["site"]) == ["b"] and "no NO2" in apart["why"].iloc[0]
+    fig = figures.network_ranking_bars(ranked, apart, "N")
+    assert len(fig.data) == 1 and not any("b" in y for y in fig.data[0].y)
+    tot = figures.network_totals(table)
+    b_open = [t for t in tot.data if t.name.startswith("b (partial") and t.xaxis == "x2"][0]
+    assert b_open.marker.symbol == "circle-open" and b_open.y[0] == 30.0
