@@ -245,3 +245,13 @@ def test_several_sites_and_tidy_table():
         wet["dep_SO4_kg_ha"].sel(site="B", period="2021-06").item())
     assert wet["dep_SO4_kg_ha"].attrs["units"] == "kg S ha-1"
     assert wet["dep_NH4_kg_ha"].attrs["units"] == "kg N ha-1"
+
+
+def test_unscreened_or_empty_input_is_refused():
+    s, e = week("2021-06-01")
+    raw = make_samples([dict(start=s, end=e, gauge_depth=3.0, **balanced(20, 20, 10))],
+                       ions=IONS)
+    with pytest.raises(ValueError, match="call workbench.wet.screen first"):
+        wet_deposition(raw, "month")
+    with pytest.raises(ValueError, match="no precipitation samples"):
+        wet_deposition(screen(raw).isel(sample=slice(0, 0)), "month")

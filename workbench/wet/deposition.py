@@ -157,6 +157,10 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     annual precipitation, so monthly fluxes need not add up to it exactly.
     """
     opt = options
+    if screened.sizes.get("sample", 0) == 0:
+        raise ValueError("no precipitation samples to aggregate (the screened Dataset is empty)")
+    if "status" not in screened:
+        raise ValueError("wet_deposition needs screened samples: call workbench.wet.screen first")
     ptable = _periods_table(periods, screened, opt)
     sites = np.unique(screened["site"].values.astype(str))
     n_site, n_per = len(sites), len(ptable)
