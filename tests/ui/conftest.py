@@ -8,8 +8,9 @@ from ui.demo_subset import write_demo_subset
 
 @pytest.fixture(scope="session")
 def ridge_2021(tmp_path_factory):
-    """Scenario file of one site-year of the demo network (ridge, 2021)."""
-    return write_demo_subset(tmp_path_factory.mktemp("ridge_2021"), ("ridge",), 2021, 2021)
+    """Scenario file of one site of the demo network, 2020-2021 (the demo plants a poor
+    ion balance at ridge in April 2020)."""
+    return write_demo_subset(tmp_path_factory.mktemp("ridge"), ("ridge",), 2020, 2021)
 
 
 @pytest.fixture(scope="session")

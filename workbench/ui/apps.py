@@ -194,9 +194,11 @@ class SiteExplorer(widgets.VBox):
                 return go.Figure(layout=dict(title="no resistances (fixed velocities or no met)"))
             return figures_dry.resistance_breakdown(r.velocities, site, rec, self.gas_w.value, off)
         if name == "ion balance":
-            return figures_wet.ion_balance(r.screened, site, self.settings.wet)
+            return figures_wet.ion_balance(r.screened, site, self.settings.wet,
+                                           *self.session.bounds(*self.years))
         if name == "capture efficiency":
-            return figures_wet.capture_efficiency(r.screened, site, self.settings.wet)
+            return figures_wet.capture_efficiency(r.screened, site, self.settings.wet,
+                                                  *self.session.bounds(*self.years))
         raise KeyError(name)
 
     def _tab_key(self, name):
@@ -220,7 +222,8 @@ class SiteExplorer(widgets.VBox):
             self._drawn[name] = key
 
     def _excluded_html(self):
-        t = excluded_samples(self.result.screened, self.site)
+        start, end = self.session.bounds(*self.years)
+        t = excluded_samples(self.result.screened, self.site, start=start, end=end)
         if not t.empty:
             t = t.assign(start=t["start"].dt.strftime("%Y-%m-%d %H:%M"),
                          end=t["end"].dt.strftime("%Y-%m-%d %H:%M"))

@@ -12,7 +12,7 @@ import plotly.graph_objects as go
 from ..wet.options import WetOptions
 from ..wet.qa import tier_limit
 from .palette import ENVELOPE_FILL, OKABE_ITO, SAMPLE_STATUS_STYLE, TEMPLATE
-from .summaries import reason_counts
+from .summaries import in_span, reason_counts
 
 #: Points along the envelope's edges (log-spaced in CE + AN).
 ENVELOPE_POINTS = 400
@@ -26,10 +26,8 @@ HEIGHT = 420
 STATUSES = ("used", "flagged", "excluded")
 
 
-def _pick(screened, site):
-    if site is None:
-        return screened
-    return screened.isel(sample=np.flatnonzero(screened["site"].values.astype(str) == site))
+def _pick(screened, site, start=None, end=None):
+    return screened.isel(sample=np.flatnonzero(in_span(screened, site, start, end)))
 
 
 def _hover(s):
@@ -59,7 +57,7 @@ def ion_balance_envelope(tiers, upper: float):
     return an, ce
 
 
-def ion_balance(screened, site=None, options: WetOptions | None = None):
+def ion_balance(screened, site=None, options: WetOptions | None = None, start=None, end=None):
     """Cation sum against anion sum per sample, with the acceptance envelope.
 
     Parameters
@@ -70,6 +68,8 @@ def ion_balance(screened, site=None, options: WetOptions | None = None):
     site : str, optional
     options : WetOptions, optional
         Gives the tiers of the envelope (default: the defaults).
+    start, end : str or datetime64, optional
+        Only samples overlapping [start, end).
 
     Returns
     -------
@@ -78,7 +78,7 @@ def ion_balance(screened, site=None, options: WetOptions | None = None):
         excluded); log axes.
     """
     options = options or WetOptions()
-    s = _pick(screened, site)
+    s = _pick(screened, site, start, end)
     ce = s["cation_sum"].values.astype(float)
     an = s["anion_sum"].values.astype(float)
     top = np.nanmax(np.concatenate([ce + an, [ENVELOPE_LOW * 10]])) * ENVELOPE_HEADROOM
@@ -107,7 +107,8 @@ def ion_balance(screened, site=None, options: WetOptions | None = None):
     return fig
 
 
-def capture_efficiency(screened, site=None, options: WetOptions | None = None):
+def capture_efficiency(screened, site=None, options: WetOptions | None = None, start=None,
+                       end=None):
     """Collector depth over gauge depth per sample, with the accepted ranges.
 
     Returns
@@ -117,7 +118,7 @@ def capture_efficiency(screened, site=None, options: WetOptions | None = None):
         log x axis (gauge depth [mm]).
     """
     options = options or WetOptions()
-    s = _pick(screened, site)
+    s = _pick(screened, site, start, end)
     gauge = s["gauge_depth"].values.astype(float)
     ratio = s["capture_ratio"].values.astype(float)
     hi_x = np.nanmax(np.concatenate([gauge, [options.capture_min_depth * 10]])) * ENVELOPE_HEADROOM
@@ -150,7 +151,7 @@ def capture_efficiency(screened, site=None, options: WetOptions | None = None):
     return fig
 
 
-def excluded_by_reason(screened, site=None):
+def excluded_by_reason(screened, site=None, start=None, end=None):
     """Samples flagged or excluded, counted by reason (horizontal bars by status).
 
     Returns
@@ -158,7 +159,7 @@ def excluded_by_reason(screened, site=None):
     plotly.graph_objects.Figure
         Two bar traces: excluded, flagged.
     """
-    t = reason_counts(_pick(screened, site) if screened is not None else None)
+    t = reason_counts(screened, site, start, end) if screened is not None else reason_counts(None)
     fig = go.Figure()
     reasons = list(dict.fromkeys(t["reason"])) if len(t) else []
     for st in ("excluded", "flagged"):

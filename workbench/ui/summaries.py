@@ -249,8 +249,23 @@ def resistance_medians(vel: xr.Dataset, site, receptor, gas, utc_offset_h=0.0) -
     return pd.concat(out, ignore_index=True)
 
 
-def excluded_samples(screened: xr.Dataset, site=None, statuses=("excluded", "flagged")) -> pd.DataFrame:
+def in_span(screened: xr.Dataset, site=None, start=None, end=None) -> np.ndarray:
+    """Samples of `site` (all when None) that overlap [start, end) (bool per sample)."""
+    keep = np.ones(screened.sizes["sample"], bool)
+    if site is not None:
+        keep &= screened["site"].values.astype(str) == site
+    if start is not None:
+        keep &= screened["end"].values > np.datetime64(start)
+    if end is not None:
+        keep &= screened["start"].values < np.datetime64(end)
+    return keep
+
+
+def excluded_samples(screened: xr.Dataset, site=None, statuses=("excluded", "flagged"),
+                     start=None, end=None) -> pd.DataFrame:
     """Samples not used as they are, with their reasons (one row per sample).
+
+    Only samples of `site` that overlap [`start`, `end`) when these are given.
 
     Returns
     -------
@@ -268,16 +283,14 @@ def excluded_samples(screened: xr.Dataset, site=None, statuses=("excluded", "fla
         "status": screened["status"].values.astype(str),
         "reasons": screened["reasons"].values.astype(str),
         "gauge_depth": screened["gauge_depth"].values.astype(float)})
-    keep = frame["status"].isin(statuses)
-    if site is not None:
-        keep &= frame["site"] == site
+    keep = frame["status"].isin(statuses).to_numpy() & in_span(screened, site, start, end)
     order = {s: i for i, s in enumerate(statuses)}
     frame = frame[keep].copy()
     frame["_o"] = frame["status"].map(order)
     return frame.sort_values(["_o", "start"]).drop(columns="_o").reset_index(drop=True)
 
 
-def reason_counts(screened: xr.Dataset, site=None) -> pd.DataFrame:
+def reason_counts(screened: xr.Dataset, site=None, start=None, end=None) -> pd.DataFrame:
     """Samples per reason and status (a sample with two reasons counts under both).
 
     Returns
@@ -285,7 +298,7 @@ def reason_counts(screened: xr.Dataset, site=None) -> pd.DataFrame:
     pandas.DataFrame
         ``reason, status, samples``.
     """
-    t = excluded_samples(screened, site)
+    t = excluded_samples(screened, site, start=start, end=end)
     if t.empty:
         return pd.DataFrame(columns=["reason", "status", "samples"])
     t = t.assign(reason=t["reasons"].where(t["reasons"] != "", "(no reason given)")
