@@ -29,6 +29,7 @@ ELEMENT_IONS = ("SO4", "NO3", "NH4")
 #: Period statuses.
 PERIOD_STATUSES = ("complete", "flagged", "filled", "missing")
 _UNIT_KG = {"SO4": "kg S ha-1", "NO3": "kg N ha-1", "NH4": "kg N ha-1"}
+_N_SEASONS = len(_periods.SEASON_NAMES)
 
 
 def _periods_table(periods, screened, opt):
@@ -98,13 +99,15 @@ def _climatology(screened, opt, met, site_idx, n_site, species, mult):
     used = screened["used"].values.astype(bool)[i]
     weight = np.where(used, depth * table["share"].values / mult[i], 0.0)
     s_of = pd.Index(_periods.SEASON_NAMES).get_indexer(seasons["season"].values)
-    flat = site_idx[i] * 4 + s_of[table["period"].values]
-    num, den = _weighted(table, screened, weight, used, flat, n_site * 4, species)
-    by_season = {sp: (num[sp] / np.where(den[sp] > 0, den[sp], np.nan)).reshape(n_site, 4)
+    shape = (n_site, _N_SEASONS)
+    flat = site_idx[i] * _N_SEASONS + s_of[table["period"].values]
+    num, den = _weighted(table, screened, weight, used, flat, n_site * _N_SEASONS, species)
+    by_season = {sp: (num[sp] / np.where(den[sp] > 0, den[sp], np.nan)).reshape(shape)
                  for sp in species}
-    whole = {sp: num[sp].reshape(n_site, 4).sum(1) /
-             np.where(den[sp].reshape(n_site, 4).sum(1) > 0,
-                      den[sp].reshape(n_site, 4).sum(1), np.nan) for sp in species}
+    whole = {}
+    for sp in species:
+        n_all, d_all = num[sp].reshape(shape).sum(1), den[sp].reshape(shape).sum(1)
+        whole[sp] = n_all / np.where(d_all > 0, d_all, np.nan)
     return by_season, whole
 
 
@@ -244,7 +247,7 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         cat = pd.Index(_periods.SEASON_NAMES).get_indexer(ptable["season"].values)
         has_season = ptable["kind"].isin(["month", "season"]).values & (cat >= 0)
         for sp in species:
-            clim = np.where(has_season[None, :], by_season[sp][:, np.clip(cat, 0, 3)],
+            clim = np.where(has_season[None, :], by_season[sp][:, np.clip(cat, 0, _N_SEASONS - 1)],
                             whole[sp][:, None])
             take = failed & wet & np.isfinite(clim)
             filled |= take
@@ -385,9 +388,9 @@ def to_table(wet: xr.Dataset) -> pd.DataFrame:
     frames = []
     base = wet[["precipitation", "gauge_fraction", "coverage_fraction", "valid_precip_fraction",
                 "n_valid", "status", "filled"]].to_dataframe().reset_index()
-    names = [v[4:] for v in wet.data_vars if v.startswith("pwm_")]
+    names = [v.removeprefix("pwm_") for v in wet.data_vars if v.startswith("pwm_")]
     for name in names:
-        ion = name[3:] if name.startswith("nss") else name
+        ion = name.removeprefix("nss")
         cols = {"pwm [mol m-3]": wet[f"pwm_{name}"],
                 "deposition [mol m-2]": wet[f"dep_{name}"],
                 "deposition [eq/ha]": wet[f"dep_{name}_eq_ha"]}

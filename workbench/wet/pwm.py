@@ -103,7 +103,7 @@ class CoverageProfile:
     """
 
     def __init__(self, site_idx, start, end, n_sites, origin, span):
-        self.offset = float(span) + 1.0
+        self.offset = float(span) + 1.0   # one spare hour between consecutive sites
         self.origin = origin
         s, e = _site_axis(site_idx, start, end, origin)
         off = np.asarray(site_idx, dtype=float) * self.offset
