@@ -124,6 +124,7 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
     end = ds["end"].values.astype("datetime64[ns]")
     ions = [i for i in PRECIP_IONS if i in ds]
     reasons = []  # (key, label, mask, effect); effect: "exclude" | "flag" | "note"
+    added = {}    # variables to add, assigned once at the end (one merge, not dozens)
 
     # --- flags --------------------------------------------------------------------------
     codes, unknown = _flag_table(_values(ds, "flags", "", object))
@@ -154,18 +155,18 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
         lim_used = np.where(cens, np.where(np.isfinite(stated), stated, site_median), np.nan)
         treated = qa.censored_value(rep, cens, lim_used, opt.detection_limit)
         attrs = dict(ds[ion].attrs)
-        ds[f"{ion}_reported"] = ("sample", rep, {**attrs, "long_name": f"{ion} as reported"})
-        ds[f"{ion}_limit_used"] = ("sample", lim_used, {
+        added[f"{ion}_reported"] = ("sample", rep, {**attrs, "long_name": f"{ion} as reported"})
+        added[f"{ion}_limit_used"] = ("sample", lim_used, {
             "units": "mol m-3", "long_name": f"detection limit applied to censored {ion}"})
-        ds[ion] = ("sample", treated, {**attrs, "units": "mol m-3",
-                                       "detection_limit_treatment": opt.detection_limit})
+        added[ion] = ("sample", treated, {**attrs, "units": "mol m-3",
+                                          "detection_limit_treatment": opt.detection_limit})
         n_censored += cens
         censored_counts[ion] = int(cens.sum())
         no_limit_counts[ion] = int((cens & ~np.isfinite(treated)).sum())
         has_chem |= np.isfinite(rep) | cens
     pH = _values(ds, "pH")
     has_chem |= np.isfinite(pH)
-    conc = {ion: ds[ion].values for ion in ions}
+    conc = {ion: added[ion][1] for ion in ions}
 
     # --- acidity, bicarbonate, ion balance ----------------------------------------------
     hyd = qa.hydrogen_from_pH(pH)
@@ -232,8 +233,8 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
         for ion in BLANK_IONS:
             if ion in conc and ion in blanks:
                 bmax = _blank_values(ds, blanks, ion)
-                ds[f"{ion}_blank"] = ("sample", bmax, {"units": "mol m-3",
-                                                       "long_name": f"largest field blank of {ion}"})
+                added[f"{ion}_blank"] = ("sample", bmax, {"units": "mol m-3",
+                                                          "long_name": f"largest field blank of {ion}"})
                 blank_hit |= bmax > opt.blank_share * conc[ion]
     reasons.append(("blank", "field blank high against the sample", blank_hit, cont_effect))
 
@@ -293,8 +294,8 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
             notes = _join(notes, mask, label)
         else:
             text = _join(text, mask, label)
-        ds[f"qa_{key}"] = ("sample", np.asarray(mask, bool), {"long_name": label,
-                                                              "effect": effect})
+        added[f"qa_{key}"] = ("sample", np.asarray(mask, bool), {"long_name": label,
+                                                                 "effect": effect})
     notes = _join(notes, n_censored > 0, f"censored values set to {opt.detection_limit} limit")
 
     def check(evaluated, failed):
@@ -336,7 +337,8 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
         attrs = {"long_name": long_name}
         if units:
             attrs["units"] = units
-        ds[name] = ("sample", np.asarray(values), attrs)
+        added[name] = ("sample", np.asarray(values), attrs)
+    ds = ds.assign(added)
 
     status_counts = {s: int((status == s).sum()) for s in STATUSES}
     reason_counts = {label: {s: int((mask & (status == s)).sum()) for s in STATUSES
