@@ -74,7 +74,8 @@ class SiteExplorer(widgets.VBox):
         self.site_w = widgets.Dropdown(options=sites, value=site, description="site")
         self.receptor_w = widgets.Dropdown(options=session.receptors(site), description="receptor")
         self.years_w = widgets.IntRangeSlider(value=years, min=first, max=last, step=1,
-                                              description="years", continuous_update=False)
+                                              description="years", continuous_update=False,
+                                              layout=widgets.Layout(width="360px"))
         self.unit_w = widgets.Dropdown(options=list(UNITS), value=unit, description="unit")
         self.gas_w = widgets.Dropdown(options=GASES, value=GASES[0], description="gas")
         for w, cls_ in ((self.site_w, "wb-site"), (self.receptor_w, "wb-receptor"),

@@ -19,6 +19,8 @@ from .summaries import UNITS, axis_text, component_rates, monthly_amounts, total
 
 #: Order of the elements side by side.
 ELEMENTS = ("S", "N")
+#: Legend titles of the elements.
+ELEMENT_NAMES = {"S": "sulfur", "N": "nitrogen"}
 #: Marker of a total: filled where rankable, open where partial or failing.
 TOTAL_SYMBOL = {True: "diamond", False: "diamond-open"}
 #: Height of a figure [px].
@@ -75,14 +77,17 @@ def budget_bars(ds, site, receptor, period=None, unit="kg/ha/yr", fig=None):
     tot = total_rates(ds, site, receptor, period, unit)
     fig = fig if fig is not None else go.Figure()
     traces = []
+    titled = set()
     for (el, pw, sp), g in comp.groupby(["element", "pathway", "species"], sort=False):
         name = f"{pw} {sp}"
         axis = axis_text(unit, element=el)
         st = g["status"].to_numpy()
+        title = dict(text=ELEMENT_NAMES[el]) if el not in titled else None
+        titled.add(el)
         traces.append(go.Bar(
             x=[[el] * len(g), g["period"].tolist()],
             y=[v if np.isfinite(v) else None for v in g["value"]],
-            name=name, legendgroup=name,
+            name=name, legendgroup=el, legendgrouptitle=title,
             marker=dict(color=COMPONENT_COLOURS[f"{pw}/{sp}"],
                         opacity=[STATUS_OPACITY.get(s, 1.0) for s in st],
                         pattern=dict(shape=[STATUS_PATTERN.get(s, "") for s in st]),
@@ -111,7 +116,8 @@ def budget_bars(ds, site, receptor, period=None, unit="kg/ha/yr", fig=None):
     fig.add_traces(traces)
     fig.update_layout(barmode="stack", title=f"Budget · {site} · {receptor}",
                       yaxis_title=axis_text(unit), xaxis_title="element and period",
-                      legend_title="pathway and species", template=TEMPLATE, height=HEIGHT)
+                      legend=dict(title="pathway and species", groupclick="toggleitem"),
+                      template=TEMPLATE, height=HEIGHT)
     return fig
 
 
