@@ -11,6 +11,8 @@ import numpy as np
 import pandas as pd
 
 from ..constants import STANDARD_PRESSURE, ZERO_CELSIUS
+from ..surface.air import standard_pressure_at
+from ..surface.solar import solar_elevation_sine, time_parts
 from .common import join_reasons
 
 #: Hard ranges (internal units) beyond which a value is masked (common practice).
@@ -37,11 +39,7 @@ NIGHT_SHARE_HINT = 0.05
 
 
 def solar_elevation_deg(time_utc, latitude, longitude):
-    """Approximate solar elevation [degree] at UTC times (for QA only).
-
-    Declination after Cooper (1969), Solar Energy 12, 333; equation of time after
-    Spencer (1971), Search 2(5), 172 (both as summarised by Iqbal 1983, An Introduction
-    to Solar Radiation, ch. 1).  Accuracy about 0.5 degree, enough to tell day from night.
+    """Solar elevation [degree] at UTC times (from :mod:`workbench.surface.solar`).
 
     Parameters
     ----------
@@ -49,26 +47,16 @@ def solar_elevation_deg(time_utc, latitude, longitude):
     latitude, longitude : array_like
         [degree]
     """
-    t = pd.DatetimeIndex(np.asarray(time_utc).ravel())
-    doy = t.day_of_year.to_numpy()
-    hours = (t.hour + t.minute / 60.0).to_numpy()
-    gamma = 2 * np.pi * (doy - 1) / 365.0
-    decl = np.deg2rad(23.45) * np.sin(2 * np.pi * (284 + doy) / 365.0)
-    eot_min = 229.18 * (0.000075 + 0.001868 * np.cos(gamma) - 0.032077 * np.sin(gamma)
-                        - 0.014615 * np.cos(2 * gamma) - 0.040849 * np.sin(2 * gamma))
-    solar_time = hours + np.asarray(longitude).ravel() / 15.0 + eot_min / 60.0
-    h = np.deg2rad(15.0 * (solar_time - 12.0))
-    lat = np.deg2rad(np.asarray(latitude).ravel())
-    s = np.sin(lat) * np.sin(decl) + np.cos(lat) * np.cos(decl) * np.cos(h)
-    return np.rad2deg(np.arcsin(np.clip(s, -1, 1))).reshape(np.shape(time_utc))
+    t = np.asarray(time_utc).astype("datetime64[ns]")
+    doy, hour = time_parts(t)
+    s = solar_elevation_sine(doy, hour, np.asarray(latitude, float), np.asarray(longitude, float))
+    return np.rad2deg(np.arcsin(np.clip(s, -1, 1)))
 
 
 def expected_station_pressure(elevation_m):
-    """Station pressure of the ICAO standard atmosphere at an elevation [Pa].
-
-    p = p0 (1 - 2.25577e-5 z)^5.25588 (ICAO Doc 7488, troposphere).
-    """
-    return STANDARD_PRESSURE * (1 - 2.25577e-5 * np.asarray(elevation_m, float)) ** 5.25588
+    """Station pressure of the ICAO standard atmosphere at an elevation [Pa]
+    (:func:`workbench.surface.air.standard_pressure_at`)."""
+    return standard_pressure_at(np.asarray(elevation_m, float))
 
 
 def run_row_checks(values, sites, t, catalogue, raw_units):
