@@ -13,9 +13,9 @@ import xarray as xr
 
 from .. import flags as _flags
 from .. import species as _species
-from ..constants import GAS_CONSTANT, STANDARD_PRESSURE, ZERO_CELSIUS
+from ..constants import GAS_CONSTANT
 from ..errors import InputError
-from ..units import convert_plain, to_amount, parse_unit, ureg, Q_
+from ..units import Q_, convert_plain, to_amount
 from .common import check_intervals, check_overlaps, check_sites, join_reasons, unit_error
 from .ledger import Ledger
 from .table import RawTable
@@ -64,6 +64,19 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n):
     return data
 
 
+def _interval_table(path, catalogue, required):
+    """Read a file of intervals: checked sites, UTC start and end, sampler ids."""
+    tab = RawTable.read(path)
+    tab.require(required)
+    n = len(tab.frame)
+    sites = check_sites(tab, catalogue)
+    off = catalogue.utc_offsets(sites)
+    start, end = tab.times("start", off), tab.times("end", off)
+    check_intervals(tab, start, end)
+    samplers = tab.text("sampler_id") if tab.has("sampler_id") else np.full(n, "", object)
+    return tab, n, sites, start, end, samplers
+
+
 def read_precipitation(path, catalogue):
     """Read precipitation samples.
 
@@ -86,14 +99,7 @@ def read_precipitation(path, catalogue):
         Missing column, bad unit, text in a numeric column, negative depth, pH outside
         0-14, end before start, overlapping samples, unknown site or flag code, empty file.
     """
-    tab = RawTable.read(path)
-    tab.require(PRECIP_REQUIRED)
-    n = len(tab.frame)
-    sites = check_sites(tab, catalogue)
-    off = catalogue.utc_offsets(sites)
-    start, end = tab.times("start", off), tab.times("end", off)
-    check_intervals(tab, start, end)
-    samplers = tab.text("sampler_id") if tab.has("sampler_id") else np.full(n, "", object)
+    tab, n, sites, start, end, samplers = _interval_table(path, catalogue, PRECIP_REQUIRED)
     check_overlaps(tab, sites, samplers, start, end)
     parts = []
 
@@ -240,14 +246,7 @@ def read_air(path, catalogue, reference_state=None):
         Dim ``period``; amounts [mol m-3] at ambient state, or mixing ratios [mol mol-1].
     ledger : Ledger
     """
-    tab = RawTable.read(path)
-    tab.require(AIR_REQUIRED)
-    n = len(tab.frame)
-    sites = check_sites(tab, catalogue)
-    off = catalogue.utc_offsets(sites)
-    start, end = tab.times("start", off), tab.times("end", off)
-    check_intervals(tab, start, end)
-    samplers = tab.text("sampler_id") if tab.has("sampler_id") else np.full(n, "", object)
+    tab, n, sites, start, end, samplers = _interval_table(path, catalogue, AIR_REQUIRED)
     cols = _species_columns(tab, _species.AIR_GASES + _species.AIR_PARTICLES)
     if not cols:
         raise InputError("no species columns", file=tab.path, line=tab.header_line,
