@@ -54,8 +54,8 @@ def test_sea_salt_basis_gives_the_wet_chain_total_sulfate(app):
 
 def test_wet_option_change_never_recomputes_velocities(app):
     counts = dict(app.study.counts)
-    app.controls["wet.detection_limit"].value = "zero"
-    app.controls["wet.on_ion_balance_fail"].value = "exclude"
+    app.controls["wet.min_gauge_fraction"].value = 0.37      # values no other test uses
+    app.controls["wet.min_coverage_fraction"].value = 0.41
     assert app.study.counts["velocities"] == counts["velocities"]
     assert app.study.counts["screened"] == counts["screened"] + 2
 

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import copy
 import dataclasses
+import json
 from dataclasses import dataclass, field
 from typing import Callable
 
@@ -67,6 +68,12 @@ class Settings:
 
     def replace(self, **changes) -> "Settings":
         return dataclasses.replace(self, **changes)
+
+    def key(self) -> str:
+        """A text that differs whenever a run would differ (cache key)."""
+        fixed = sorted((k, float(v)) for k, v in self.fixed_velocity.items())
+        over = json.dumps(self.overrides, sort_keys=True, default=str)
+        return "|".join((self.wet.to_json(), repr(self.dry), repr(self.budget), repr(fixed), over))
 
     def run_args(self) -> dict:
         """Keyword arguments of :meth:`workbench.pipeline.Study.run`."""

@@ -28,6 +28,8 @@ from .summaries import mean_totals
 
 #: Subset studies kept in memory (each holds its cached stages).
 MAX_STUDIES = 4
+#: Results kept in memory (small: they share the studies' cached arrays).
+MAX_RESULTS = 32
 #: Days of data kept on each side of the years of a subset study.  Without them an air
 #: sample that straddles New Year would be counted whole in the year (the dry flux
 #: shares a straddling sample by the hours of met it sees), some % too much dry
@@ -58,6 +60,7 @@ class Session:
         self.scenario = scenario
         self.baseline = Settings.from_scenario(scenario)
         self._studies: OrderedDict = OrderedDict()
+        self._results: OrderedDict = OrderedDict()
 
     # ------------------------------------------------------------------ opening
     @classmethod
@@ -138,14 +141,26 @@ class Session:
         return st
 
     def run(self, settings: Settings, site, first_year, last_year, resolution="month"):
-        """Budget of one site and some years (``Result``; ``years`` always yearly)."""
+        """Budget of one site and some years (``Result``; ``years`` always yearly).
+
+        The last :data:`MAX_RESULTS` results are kept: going back to settings seen
+        before returns the same ``Result`` object without running the study.
+        """
+        key = (site, int(first_year), int(last_year), resolution, settings.key())
+        if key in self._results:
+            self._results.move_to_end(key)
+            return self._results[key]
         start, end = self.bounds(first_year, last_year)
         with warnings.catch_warnings():
             # a site without some component gives all-NaN slices in the budget's
             # completeness; the status columns already say "missing"
             warnings.filterwarnings("ignore", "All-NaN slice encountered", RuntimeWarning)
-            return self.study_for(site, first_year, last_year).run(
+            res = self.study_for(site, first_year, last_year).run(
                 resolution=resolution, start=start, end=end, **settings.run_args())
+        self._results[key] = res
+        while len(self._results) > MAX_RESULTS:
+            self._results.popitem(last=False)
+        return res
 
     def sweep(self, key, values, settings: Settings, site, first_year, last_year, receptor,
               unit="kg/ha/yr", progress=None) -> pd.DataFrame:

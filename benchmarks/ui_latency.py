@@ -1,0 +1,155 @@
+"""UI latency: time from an assumption change to the updated figures, Python side.
+
+One site-year of the demo scenario in the site explorer.  For each assumption the
+control's value is set (as a user would) and the time until the observer returns is
+taken: recomputation of the stages the assumption touches plus the batched figure
+updates.  No browser: the time to draw in the page is not included.
+
+    python benchmarks/ui_latency.py                    # ridge 2021, 5 repeats
+    python benchmarks/ui_latency.py --site farm --year 2019 --repeat 3 --json out.json
+
+Reported per assumption: the median and the best time [ms], their ratio to the
+100 ms target, and the share spent in ``Study.run`` (the rest is figures and tables).
+"Cold" means a value not seen before (the stages it touches are computed, the others
+come from the study's caches); "warm" means a value seen before (the session keeps the
+last results, so only the figures are redrawn).
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import platform
+import statistics
+import sys
+import time
+import warnings
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT))
+
+#: The target of the issue: an assumption change to an updated figure [s].
+TARGET_S = 0.100
+#: Assumptions timed, with the values cycled through (numbers get a new value each
+#: repeat for the cold case).
+CASES = (
+    ("wet.detection_limit", ("zero", "limit", "half")),
+    ("wet.on_ion_balance_fail", ("exclude", "flag")),
+    ("wet.min_gauge_fraction", None),
+    ("budget.sulfate_basis", ("total", "nss")),
+    ("budget.pair_split", ("all_gas", "all_particle", "measured")),
+    ("budget.min_air_coverage", None),
+    ("fixed_velocity.SO2", None),
+    ("dry.wetness_rule", ("always_wet", "always_dry", "inferred", "met")),
+)
+
+
+def machine() -> dict:
+    cpu = ""
+    try:
+        for line in Path("/proc/cpuinfo").read_text().splitlines():
+            if line.startswith("model name"):
+                cpu = line.split(":", 1)[1].strip()
+                break
+    except OSError:
+        pass
+    return {"python": platform.python_version(), "platform": platform.platform(),
+            "cpu": cpu or platform.processor(), "cpus": os.cpu_count()}
+
+
+def _fresh_numbers(i: int, key: str):
+    """A value not used before for numeric assumptions (cold case)."""
+    base = {"wet.min_gauge_fraction": 0.5, "budget.min_air_coverage": 0.5,
+            "fixed_velocity.SO2": 0.2}[key]
+    return round(base + 0.013 * (i + 1), 4)
+
+
+def _study_run(app):
+    """The study's run with the app's settings (past the session's result cache)."""
+    start, end = app.session.bounds(*app.years)
+    res = "month" if app._monthly_shown() else "year"
+    return app.study.run(resolution=res, start=start, end=end, **app.settings.run_args())
+
+
+def time_case(app, key, values, repeat):
+    ctl = app.controls[key]
+    cold, warm, run_s = [], [], []
+    seen = []
+    for i in range(repeat):
+        v = _fresh_numbers(i, key) if values is None else values[i % len(values)]
+        first = v not in seen
+        seen.append(v)
+        t0 = time.perf_counter()
+        ctl.value = v
+        dt = time.perf_counter() - t0
+        (cold if first else warm).append(dt)
+        t1 = time.perf_counter()
+        _study_run(app)                             # the same run again: cached stages
+        run_s.append(time.perf_counter() - t1)
+    # warm: revisit every value once more
+    for v in list(dict.fromkeys(seen)):
+        if ctl.value == v:
+            continue
+        t0 = time.perf_counter()
+        ctl.value = v
+        warm.append(time.perf_counter() - t0)
+    app.reset()
+    return cold, warm, run_s
+
+
+def main(argv=None):
+    p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    p.add_argument("--scenario", default=str(ROOT / "demo_data" / "scenario.toml"))
+    p.add_argument("--site", default="ridge")
+    p.add_argument("--year", type=int, default=2021)
+    p.add_argument("--repeat", type=int, default=5)
+    p.add_argument("--tab", default="monthly fluxes",
+                   help="tab shown below the budget while timing (its figure updates too)")
+    p.add_argument("--json", default=None, help="write the results here")
+    args = p.parse_args(argv)
+    warnings.simplefilter("ignore", RuntimeWarning)
+    from workbench.ui.apps import TABS, SiteExplorer
+    from workbench.ui.session import Session
+    t0 = time.perf_counter()
+    session = Session.open(args.scenario)
+    t_open = time.perf_counter() - t0
+    t0 = time.perf_counter()
+    app = SiteExplorer(session, site=args.site, years=(args.year, args.year))
+    t_first = time.perf_counter() - t0
+    app.tabs.selected_index = TABS.index(args.tab)
+    t0 = time.perf_counter()
+    app.redraw()
+    t_redraw = time.perf_counter() - t0
+    _study_run(app)
+    t0 = time.perf_counter()
+    _study_run(app)
+    t_cached = time.perf_counter() - t0
+    rows = []
+    for key, values in CASES:
+        cold, warm, run_s = time_case(app, key, values, args.repeat)
+        rows.append({"assumption": key, "cold_median_ms": 1e3 * statistics.median(cold) if cold else None,
+                     "cold_best_ms": 1e3 * min(cold) if cold else None,
+                     "warm_median_ms": 1e3 * statistics.median(warm) if warm else None,
+                     "cached_run_ms": 1e3 * statistics.median(run_s)})
+    out = {"machine": machine(), "scenario": args.scenario, "site": args.site, "year": args.year,
+           "tab": args.tab, "open_s": t_open, "first_run_s": t_first,
+           "redraw_ms": 1e3 * t_redraw, "cached_run_ms": 1e3 * t_cached, "cases": rows}
+    print(f"machine: {out['machine']}")
+    print(f"scenario {args.scenario}, site {args.site}, year {args.year}, tab '{args.tab}'")
+    print(f"open (read inputs): {t_open:.1f} s; explorer with first run: {t_first:.1f} s")
+    print(f"Study.run with every stage cached: {1e3 * t_cached:.0f} ms; figures and tables "
+          f"(budget and the tab shown): {1e3 * t_redraw:.0f} ms")
+    print(f"{'assumption':28s} {'cold ms':>8s} {'x target':>8s} {'warm ms':>8s} {'x target':>8s}")
+    for r in rows:
+        c, w = r["cold_median_ms"], r["warm_median_ms"]
+        cs = f"{c:8.0f} {c / (1e3 * TARGET_S):8.1f}" if c is not None else f"{'-':>8s} {'-':>8s}"
+        ws = f"{w:8.0f} {w / (1e3 * TARGET_S):8.1f}" if w is not None else f"{'-':>8s} {'-':>8s}"
+        print(f"{r['assumption']:28s} {cs} {ws}")
+    if args.json:
+        Path(args.json).write_text(json.dumps(out, indent=1))
+    return out
+
+
+if __name__ == "__main__":
+    main()
