@@ -12,7 +12,7 @@ import numpy as np
 import periodictable
 import pytest
 
-from workbench.ui.apps import NetworkOverview, SensitivityExplorer, SiteExplorer
+from workbench.ui.apps import TABS, NetworkOverview, SensitivityExplorer, SiteExplorer
 from workbench.ui.session import Session
 
 #: kg ha-1 per (mol m-2 x g mol-1): 1e-3 kg/g x 1e4 m2/ha.
@@ -114,6 +114,7 @@ def test_excluding_failed_ion_balance_lists_the_sample_with_its_reason(session):
     from workbench.wet import screen
     app = SiteExplorer(session, site="ridge", years=(2020, 2020))
     reason = "ion balance outside acceptance"
+    app.tabs.selected_index = TABS.index("excluded samples")
     n_before = app.excluded_w.value.count("<td>excluded</td>")
     assert reason in app.excluded_w.value                  # flagged, kept
     app.controls["wet.on_ion_balance_fail"].value = "exclude"
@@ -184,3 +185,40 @@ def test_network_overview_never_ranks_a_partial_total(two_sites_2021):
     ranked_n = app.figs["N"].data[0].y
     assert not any("mere" in y for y in ranked_n) and any("ridge" in y for y in ranked_n)
     assert "mere" in app.apart_w.value
+
+
+def test_year_range_gives_a_bar_per_year_and_the_mean_in_the_change_line(session):
+    from workbench.ui.summaries import mean_totals, total_rates
+    app = SiteExplorer(session, site="ridge", years=(2021, 2021))
+    app.years_w.value = (2020, 2021)
+    total = next(t for t in app.figs["budget"].data if t.name == "total")
+    assert list(total.x[1]) == ["2020", "2021", "2020", "2021"]
+    rates = total_rates(app.result.years, "ridge", "conifer_forest")
+    s = rates[rates["total"] == "S_total"]["value"].to_numpy()
+    assert list(total.y[:2]) == pytest.approx(list(s))
+    m = mean_totals(app.result.years, "ridge", "conifer_forest")
+    assert m.loc["S_total", "value"] == pytest.approx(s.mean())
+    assert f"S total {s.mean():.1f} kg/ha/yr" in app.change_w.value
+
+
+def test_switching_site_picks_its_receptors_and_recomputes(two_sites_2021):
+    s = Session.open(two_sites_2021)
+    app = SiteExplorer(s, site="ridge", years=(2021, 2021))
+    app.site_w.value = "mere"
+    assert list(app.receptor_w.options) == s.receptors("mere") and app.receptor_w.value == "wetland"
+    assert app.figs["budget"].layout.title.text.endswith("mere · wetland")
+    dep = app.result.years["deposition"].sel(site="mere", receptor="wetland", component="N/dry/NO2")
+    assert not np.isfinite(float(dep.values[0]))              # no NO2 at mere: missing
+    assert _y(app, "dry NO2") is None
+
+
+def test_site_year_subset_gives_the_numbers_of_the_whole_study(two_sites_2021):
+    """The explorer computes on one site and its years; the budget is the same as the
+    whole study's (samples straddling New Year are shared, not counted whole)."""
+    s = Session.open(two_sites_2021)
+    res = s.run(s.baseline, "ridge", 2021, 2021, "year")
+    whole = s.study.run(resolution="year", start="2021-01-01", end="2022-01-01",
+                        **s.baseline.run_args())
+    a = res.years["total_deposition"].sel(site="ridge").values
+    b = whole.years["total_deposition"].sel(site="ridge").values
+    np.testing.assert_allclose(a, b, rtol=1e-12)

@@ -93,14 +93,16 @@ class SiteExplorer(widgets.VBox):
         self.progress.start("first run")
         self.result = self._run()
         self.figs = {"budget": figure_widget(self._figure("budget"))}
-        for name in TABS[:-1]:
+        for name in TABS:
             self.figs[name] = figure_widget(self._figure(name))
             self._drawn[name] = self._tab_key(name)
         self.figs["budget"].add_class("wb-budget")
         self._totals = self._current_totals()
         self.change_w.value = html.escape(change_line(None, self._totals, self.unit_w.value))
         self.excluded_w.value = self._excluded_html()
-        self.tabs = widgets.Tab([self.figs[n] for n in TABS[:-1]] + [self.excluded_w])
+        pages = [self.figs[n] for n in TABS[:-1]]
+        pages.append(widgets.VBox([self.figs[TABS[-1]], self.excluded_w]))
+        self.tabs = widgets.Tab(pages)
         for i, n in enumerate(TABS):
             self.tabs.set_title(i, n)
         self.progress.done("first run done")
@@ -200,6 +202,8 @@ class SiteExplorer(widgets.VBox):
         if name == "capture efficiency":
             return figures_wet.capture_efficiency(r.screened, site, self.settings.wet,
                                                   *self.session.bounds(*self.years))
+        if name == "excluded samples":
+            return figures_wet.excluded_by_reason(r.screened, site, *self.session.bounds(*self.years))
         raise KeyError(name)
 
     def _tab_key(self, name):
@@ -212,6 +216,8 @@ class SiteExplorer(widgets.VBox):
             return (id(r.velocities), rec, self.gas_w.value)
         if name in ("ion balance", "capture efficiency"):
             return (id(r.screened), self.settings.wet.ion_balance_tiers, self.settings.wet.capture_rain)
+        if name == "excluded samples":
+            return (id(r.screened), self.years)
         return None
 
     def _draw_tab(self, name, force=False):
@@ -220,6 +226,8 @@ class SiteExplorer(widgets.VBox):
         key = self._tab_key(name)
         if force or self._drawn.get(name) != key:
             refresh(self.figs[name], self._figure(name))
+            if name == "excluded samples":
+                self.excluded_w.value = self._excluded_html()
             self._drawn[name] = key
 
     def _excluded_html(self):
@@ -236,8 +244,7 @@ class SiteExplorer(widgets.VBox):
         after = self._current_totals()
         self.change_w.value = html.escape(change_line(self._before, after, self.unit_w.value))
         self._totals = after
-        self.excluded_w.value = self._excluded_html()
-        names = TABS[:-1] if all_tabs else [TABS[self.tabs.selected_index or 0]]
+        names = TABS if all_tabs else [TABS[self.tabs.selected_index or 0]]
         for name in names:
             self._draw_tab(name)
 
@@ -289,7 +296,7 @@ class SiteExplorer(widgets.VBox):
 
     def _on_tab(self, change):
         i = change["new"]
-        if i is not None and i < len(TABS) - 1:
+        if i is not None:
             self._draw_tab(TABS[i])
 
     # ------------------------------------------------------------------ buttons
