@@ -152,7 +152,7 @@ def monthly_fluxes(ds_month, site, receptor, unit="kg/ha/yr"):
                 customdata=st, hovertemplate=(f"{el} {pw} %{{x|%Y-%m}}: %{{y:.3g}} "
                                               f"{axis_text(unit, True, el)}<br>status "
                                               "%{customdata}<extra></extra>")), row=row, col=1)
-        fig.update_yaxes(title_text=axis_text(unit, True, el), row=row, col=1)
+        fig.update_yaxes(title_text=axis_text(unit, True, el), row=row, col=1, rangemode="tozero")
     fig.update_xaxes(title_text="month (UTC)", row=2, col=1)
     fig.update_layout(title=f"Monthly deposition · {site} · {receptor}", template=TEMPLATE,
                       height=HEIGHT + 100, legend_title="element and pathway")

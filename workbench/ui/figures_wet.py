@@ -22,6 +22,8 @@ ENVELOPE_LOW = 1.0
 ENVELOPE_HEADROOM = 1.5
 #: Height of a QA figure [px].
 HEIGHT = 420
+#: Counts up to this get a tick at every whole number.
+INTEGER_TICKS_UP_TO = 10
 #: Sample statuses drawn, in this order.
 STATUSES = ("used", "flagged", "excluded")
 
@@ -36,7 +38,7 @@ def _hover(s):
             for ln, a, b, r in zip(s["line"].values, s["start"].values, s["end"].values, reasons)]
 
 
-def ion_balance_envelope(tiers, upper: float):
+def ion_balance_envelope(tiers, upper: float, lower: float = ENVELOPE_LOW):
     """Edges of the ion-balance acceptance region in the (AN, CE) plane [ueq/L].
 
     A sample passes when :math:`|ID| = 100 |CE - AN| / (CE + AN) \\le L(CE + AN)`,
@@ -44,12 +46,19 @@ def ion_balance_envelope(tiers, upper: float):
     :math:`AN = s (1 \\mp L/100) / 2` (WMO GAW Report No. 160, 2004, Section 8, from
     memory; the tiers are those of the options).
 
+    Parameters
+    ----------
+    tiers : sequence of (bound [ueq/L], limit [%])
+    upper, lower : float
+        Range of CE + AN drawn. [ueq/L]
+
     Returns
     -------
     an, ce : ndarray
         A closed polygon (upper edge, then the lower edge backwards). [ueq/L]
     """
-    s = np.geomspace(ENVELOPE_LOW, max(upper, ENVELOPE_LOW * 10), ENVELOPE_POINTS)
+    lower = max(float(lower), ENVELOPE_LOW)
+    s = np.geomspace(lower, max(upper, lower * 10), ENVELOPE_POINTS)
     f = np.asarray(tier_limit(s, tiers), float) / 100.0
     ce_hi, an_hi = s * (1 + f) / 2, s * (1 - f) / 2
     an = np.concatenate([an_hi, ce_hi[::-1]])
@@ -81,13 +90,16 @@ def ion_balance(screened, site=None, options: WetOptions | None = None, start=No
     s = _pick(screened, site, start, end)
     ce = s["cation_sum"].values.astype(float)
     an = s["anion_sum"].values.astype(float)
-    top = np.nanmax(np.concatenate([ce + an, [ENVELOPE_LOW * 10]])) * ENVELOPE_HEADROOM
-    e_an, e_ce = ion_balance_envelope(options.ion_balance_tiers, top)
+    total = ce + an
+    ok = np.isfinite(total) & (total > 0)
+    top = (total[ok].max() if ok.any() else ENVELOPE_LOW * 100) * ENVELOPE_HEADROOM
+    low = (total[ok].min() if ok.any() else ENVELOPE_LOW) / ENVELOPE_HEADROOM
+    e_an, e_ce = ion_balance_envelope(options.ion_balance_tiers, top, low)
     fig = go.Figure()
     fig.add_trace(go.Scatter(x=e_an, y=e_ce, fill="toself", fillcolor=ENVELOPE_FILL,
                              line=dict(width=0), name="accepted |ion difference|",
                              hoverinfo="skip"))
-    fig.add_trace(go.Scatter(x=[ENVELOPE_LOW, top / 2], y=[ENVELOPE_LOW, top / 2], mode="lines",
+    fig.add_trace(go.Scatter(x=[low / 2, top / 2], y=[low / 2, top / 2], mode="lines",
                              line=dict(color=OKABE_ITO["grey"], dash="dot"), name="CE = AN",
                              hoverinfo="skip"))
     status = s["status"].values.astype(str)
@@ -162,6 +174,7 @@ def excluded_by_reason(screened, site=None, start=None, end=None):
     t = reason_counts(screened, site, start, end) if screened is not None else reason_counts(None)
     fig = go.Figure()
     reasons = list(dict.fromkeys(t["reason"])) if len(t) else []
+    most = int(t.groupby("reason")["samples"].sum().max()) if len(t) else 0
     for st in ("excluded", "flagged"):
         g = t[t["status"] == st].set_index("reason")["samples"] if len(t) else None
         counts = [int(g.get(r, 0)) if g is not None else 0 for r in reasons]
@@ -169,7 +182,9 @@ def excluded_by_reason(screened, site=None, start=None, end=None):
                              marker=dict(color=SAMPLE_STATUS_STYLE[st][0]),
                              hovertemplate=f"%{{y}}: %{{x}} samples {st}<extra></extra>"))
     fig.update_layout(barmode="stack", title="Samples not used as they are, by reason"
-                      + (f" · {site}" if site else ""), xaxis_title="samples",
+                      + (f" · {site}" if site else ""),
+                      xaxis=dict(title="samples", dtick=1 if most <= INTEGER_TICKS_UP_TO else None,
+                                 rangemode="tozero"),
                       yaxis=dict(title="reason", autorange="reversed"), template=TEMPLATE,
                       height=max(HEIGHT // 2, 60 + 28 * len(reasons)), margin=dict(l=260))
     return fig
