@@ -223,3 +223,20 @@ def test_site_year_subset_gives_the_numbers_of_the_whole_study(two_sites_2021):
     a = res.years["total_deposition"].sel(site="ridge").values
     b = whole.years["total_deposition"].sel(site="ridge", receptor=recs).values
     np.testing.assert_allclose(a, b, rtol=1e-12)
+
+
+def test_saved_scenario_names_what_it_cannot_hold(session, tmp_path):
+    """Particle sizes have no scenario key yet: the file says so in a comment and still
+    reads back; a seasonal category and a wetness rule are written as options."""
+    from workbench.scenario import load_scenario
+    from workbench.ui.assumptions import apply
+    st = apply(session.baseline, "ridge", {"particles.pNO3.fine_fraction": 0.2,
+                                           "dry.seasonal_category": 4,
+                                           "dry.wetness_rule": "always_dry"})
+    path = session.save_scenario(tmp_path / "s.toml", st, 2021, 2021)
+    text = path.read_text()
+    assert "# NOTE: particle size of pNO3" in text
+    back = load_scenario(path)
+    assert back.options["dry"].seasonal_category == 4
+    assert back.options["dry"].wetness_rule == "always_dry"
+    assert back.data["period"]["start"] == "2021-01-01" and back.data["period"]["end"] == "2022-01-01"
