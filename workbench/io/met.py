@@ -42,12 +42,12 @@ def _convert(tab: RawTable, name: str, target: str):
     unit = tab.unit_of(name, default="1" if target == "1" else None)
     if name == "cloud_cover" and unit.strip().lower() in ("okta", "oktas"):
         return raw / 8.0, unit
-    if name == "solar_radiation":
-        u, _ = parse_unit(unit)
-        if u.dimensionality == ureg.parse_units("J/m**2").dimensionality:
-            # an hourly sum of energy per area: the mean irradiance over the hour
-            return convert_plain(raw, unit, "J/m**2") / 3600.0, unit
     try:
+        if name == "solar_radiation":
+            u, _ = parse_unit(unit)
+            if u.dimensionality == ureg.parse_units("J/m**2").dimensionality:
+                # an hourly sum of energy per area: the mean irradiance over the hour
+                return convert_plain(raw, unit, "J/m**2") / 3600.0, unit
         return convert_plain(raw, unit, target), unit
     except ValueError as exc:
         raise unit_error(tab, name, exc, f"a unit convertible to {target}") from None

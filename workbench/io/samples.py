@@ -104,8 +104,9 @@ def read_precipitation(path, catalogue):
     parts = []
 
     def depth(name):
+        raw, unit = tab.numbers(name), tab.unit_of(name)
         try:
-            v = convert_plain(tab.numbers(name), tab.unit_of(name), "mm")
+            v = convert_plain(raw, unit, "mm")
         except ValueError as exc:
             raise unit_error(tab, name, exc, "a depth unit such as mm") from None
         if (v < 0).any():
@@ -118,12 +119,14 @@ def read_precipitation(path, catalogue):
     if tab.has("sample_depth"):
         sample = depth("sample_depth")
     elif tab.has("sample_volume") and tab.has("collector_area"):
+        raw_vol, raw_area = tab.numbers("sample_volume"), tab.numbers("collector_area")
+        u_vol, u_area = tab.unit_of("sample_volume"), tab.unit_of("collector_area")
         try:
-            vol = convert_plain(tab.numbers("sample_volume"), tab.unit_of("sample_volume"), "m**3")
+            vol = convert_plain(raw_vol, u_vol, "m**3")
         except ValueError as exc:
             raise unit_error(tab, "sample_volume", exc, "a volume unit such as mL") from None
         try:
-            area = convert_plain(tab.numbers("collector_area"), tab.unit_of("collector_area"), "m**2")
+            area = convert_plain(raw_area, u_area, "m**2")
         except ValueError as exc:
             raise unit_error(tab, "collector_area", exc, "an area unit such as cm2") from None
         for name, v in (("sample_volume", vol), ("collector_area", area)):
@@ -143,8 +146,9 @@ def read_precipitation(path, catalogue):
         raise tab.error("pH outside 0-14", row=i, column="pH", value=tab.frame["pH"].iloc[i],
                         expected="a pH between 0 and 14")
     if tab.has("conductivity"):
+        raw_cond, u_cond = tab.numbers("conductivity"), tab.unit_of("conductivity")
         try:
-            cond = convert_plain(tab.numbers("conductivity"), tab.unit_of("conductivity"), "uS/cm")
+            cond = convert_plain(raw_cond, u_cond, "uS/cm")
         except ValueError as exc:
             raise unit_error(tab, "conductivity", exc, "a conductivity unit such as uS/cm") from None
         if (cond < 0).any():

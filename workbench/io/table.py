@@ -83,6 +83,8 @@ class RawTable:
                 n_meta += 1
             else:
                 break
+        while n_meta < len(all_lines) and not all_lines[n_meta].strip():
+            n_meta += 1  # blank lines above the header
         rest = all_lines[n_meta:]
         if not any(ln.strip() for ln in rest):
             raise InputError("empty file", file=path, expected="a header line and data rows")
