@@ -123,3 +123,17 @@ def test_diurnal_profile_sensitivity():
     expected = 1e-8 * (12 * 0.001 * 0.5 + 12 * 0.009 * 1.5) / 24 * 7 * 86400
     assert alt["deposition"].values[0, 0] == pytest.approx(expected)
     assert alt["deposition"].values[0, 0] > base["deposition"].values[0, 0]
+
+
+def test_period_beyond_the_met_record_is_shared_by_real_hours():
+    """An air period starting a day before the met record: its hours outside the record
+    take the mean Vd of its hours inside, so the split follows the real overlap."""
+    vd = _vd(np.full(24 * 6, 0.004), start="2021-01-01T01:00")   # met from Jan 1
+    air = _air([("a", "2020-12-31T00:00", "2021-01-07T00:00", 1e-8)])  # 1 day in 2020
+    rows, cs = period_deposition(air, "SO2", vd, None)
+    years = make_periods("2020-01-01", "2022-01-01", "year")
+    out = to_periods(rows, cs, ["a"], years, vd["time"].values)
+    assert out["covered_hours"].values[0].tolist() == [24, 144]
+    d = rows["deposition"].values[0, 0]
+    # 2021 holds 6/7 of the sample, scaled to the year's 8760 h from 144 covered hours
+    assert out["deposition"].values[0, 0, 1] == pytest.approx(d * 6 / 7 * 8760 / 144)

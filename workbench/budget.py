@@ -132,6 +132,12 @@ class BudgetOptions:
     def to_dict(self) -> dict:
         return asdict(self)
 
+    def flux_key(self) -> str:
+        """The options that change fluxes (not only their status), as a cache key."""
+        return repr((self.sulfate_basis, self.pair_split, self.air_censored, self.min_slot_hours,
+                     sorted((k, tuple(v)) for k, v in self.diurnal_profile.items()),
+                     sorted(self.preferred_method.items())))
+
     def flux_options(self) -> DryFluxOptions:
         return DryFluxOptions(censored=self.air_censored, min_slot_hours=self.min_slot_hours,
                               diurnal_profile=dict(self.diurnal_profile),
@@ -222,7 +228,7 @@ def _pair_air(air: xr.Dataset, pair: str, into: str) -> xr.Dataset:
     return air
 
 
-def dry_rows(air, vel, met, sites, options: BudgetOptions):
+def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None):
     """Deposition over every air-sampling period of every species (period-independent).
 
     Parameters
@@ -233,56 +239,77 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions):
     met : xarray.Dataset or None
     sites : list of str
     options : BudgetOptions
+    memo : dict, optional
+        Reused between calls with the same air preparation (sulfate basis, pair split,
+        censoring, profile, method): keyed by species and the identity of its Vd, so a
+        change of one species' velocity recomputes that species only.
 
     Returns
     -------
     dict
         ``"species"``: species -> numpy results of
-        :func:`workbench.dryflux.deposition_rows` plus ``site_index`` and the Vd fill
-        cumulative sums; ``"bracket"``: (pair, how) -> the same for the pair moved into
-        one member; ``"notes"``, ``"measured"`` (site x species bool), ``"receptors"``,
-        ``"times"``.
+        :func:`workbench.dryflux.deposition_rows` plus ``site_index``; ``"vd_cum"``:
+        species -> cumulative counts of modelled and filled Vd hours; ``"bracket"``:
+        (pair, how) -> the rows with the pair moved into one member; ``"notes"``,
+        ``"measured"`` (site x species bool), ``"receptors"``, ``"times"``, ``"sites"``.
     """
     from .dryflux import _inputs_for, deposition_rows
+    memo = {} if memo is None else memo
     fopt = options.flux_options()
     species_list = [c[2] for c in COMPONENTS if c[1] == "dry"]
     any_vd = next(iter(vel.values()))[0]
     times = any_vd["time"].values
     sites = list(sites)
-    air = _nss_particles(air, options.sulfate_basis)
-    if options.pair_split != "measured":
-        for pair, (gas, part) in PAIRS.items():
-            if gas in air and part in air:
-                air = _pair_air(air, pair, gas if options.pair_split == "all_gas" else part)
-    arrays = {}
-    for sp, (vd, was, _) in vel.items():
-        vd = vd.reindex(site=sites).transpose("site", "receptor", "time")
-        was_np = was.reindex(site=sites, fill_value=False).transpose("site", "receptor", "time").values
-        valid_raw = np.isfinite(vd.values) & ~was_np
-        arrays[sp] = (vd, vd.values, _cum(valid_raw), _cum(was_np))
+    if "air" not in memo:
+        prepared = _nss_particles(air, options.sulfate_basis)
+        if options.pair_split != "measured":
+            for pair, (gas, part) in PAIRS.items():
+                if gas in prepared and part in prepared:
+                    prepared = _pair_air(prepared, pair,
+                                         gas if options.pair_split == "all_gas" else part)
+        memo["air"] = prepared
+    air = memo["air"]
 
-    def one(air_in, sp, vd_sp):
-        vd, v_np, _, _ = arrays[vd_sp]
-        rows, site_of, conc, _, quantity, weight, n_air, notes = _inputs_for(air_in, sp, vd, met, fopt)
-        si = pd.Index(sites).get_indexer(site_of)
-        r = deposition_rows(conc[rows], quantity, si, air_in["start"].values[rows],
-                            air_in["end"].values[rows], times, v_np, n_air, weight)
-        r["site_index"] = si
-        return r, notes
+    def arrays(sp):
+        key = ("arrays", sp, id(vel[sp]))
+        if key not in memo:
+            vd, was, _ = vel[sp]
+            vd = vd.reindex(site=sites).transpose("site", "receptor", "time")
+            was_np = was.reindex(site=sites, fill_value=False).transpose(
+                "site", "receptor", "time").values
+            valid_raw = np.isfinite(vd.values) & ~was_np
+            memo[key] = (vd, vd.values, _cum(valid_raw), _cum(was_np), vel[sp])
+        return memo[key]
+
+    def one(air_in, sp, vd_sp, key):
+        key = key + (id(vel[vd_sp]),)
+        if key not in memo:
+            vd, v_np = arrays(vd_sp)[:2]
+            rows, site_of, conc, _, quantity, weight, n_air, notes = _inputs_for(
+                air_in, sp, vd, met, fopt)
+            si = pd.Index(sites).get_indexer(site_of)
+            r = deposition_rows(conc[rows], quantity, si, air_in["start"].values[rows],
+                                air_in["end"].values[rows], times, v_np, n_air, weight)
+            r["site_index"] = si
+            memo[key] = (r, notes)
+        return memo[key]
 
     out = {"species": {}, "bracket": {}, "notes": [], "times": times,
            "receptors": any_vd["receptor"].values, "sites": sites, "vd_cum": {}}
     for sp in species_list:
         if sp not in air or sp not in vel:
             continue
-        r, notes = one(air, sp, sp)
+        r, notes = one(air, sp, sp, ("rows", sp))
         out["species"][sp] = r
-        out["vd_cum"][sp] = arrays[sp][2:]
+        out["vd_cum"][sp] = arrays(sp)[2:4]
         out["notes"].extend(notes)
     for pair, (gas, part) in PAIRS.items():
         if gas in air and part in air and gas in vel and part in vel:
             for how, into in (("all_gas", gas), ("all_particle", part)):
-                out["bracket"][(pair, how)] = one(_pair_air(air, pair, into), into, into)[0]
+                bkey = ("bracket", pair, how, id(vel[gas]), id(vel[part]))
+                if bkey not in memo:
+                    memo[bkey] = one(_pair_air(air, pair, into), into, into, bkey)[0]
+                out["bracket"][(pair, how)] = memo[bkey]
     out["measured"] = np.stack(
         [np.isin(sites, np.unique(air["site"].values[np.isfinite(air[sp].values)]))
          if sp in air else np.zeros(len(sites), bool) for sp in species_list], -1)
@@ -323,7 +350,7 @@ def dry_components(rows: dict, periods: pd.DataFrame):
 
     def agg(r):
         return share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"], r["cs"],
-                                n_s, periods, times)
+                                n_s, periods, times, r["start"], r["end"])
 
     for k, sp in enumerate(species_list):
         if sp not in rows["species"]:
@@ -422,6 +449,18 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     active = np.array([[r in catalogue[s].surfaces for r in receptors] for s in sites])
     bulk = np.array([catalogue[s].collector == "bulk" for s in sites])
     notes = []
+    if wet is not None:
+        w = wet.reindex(site=sites, period=periods["label"].values)
+        w_status = w["status"].values.astype(object)
+        w_status = np.where(pd.isna(w_status), "missing", w_status)
+        w_frac = np.fmin(np.fmin(w["gauge_fraction"].values, w["coverage_fraction"].values),
+                         w["valid_precip_fraction"].values)
+    if dry is not None:
+        dr = dry.reindex(receptor=list(receptors))
+        d_species = list(dr["species"].values)
+        d_dep, d_cov = dr["deposition"].values, dr["coverage"].values
+        d_vdc, d_fs, d_meas = dr["vd_coverage"].values, dr["vd_filled_share"].values, dr["measured"].values
+        d_sok = _season_ok(dry, season_cov, periods, options)
     for j, (el, path, sp) in enumerate(comps):
         if path == "wet":
             if wet is None:
@@ -430,36 +469,30 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                                       and "dep_nssSO4" in wet) else f"dep_{sp}"
             if name not in wet:
                 continue
-            w = wet.reindex(site=sites, period=periods["label"].values)
             d = w[name].values.astype(float)
             if options.bulk_correction == "scale_wet":
                 d = np.where(bulk[:, None], d * options.bulk_wet_factor, d)
             dep[:, :, :, j] = d[:, None, :]
-            st = w["status"].values.astype(object)
-            st = np.where(pd.isna(st), "missing", st)
-            status[:, :, :, j] = st[:, None, :]
-            frac = np.fmin(np.fmin(w["gauge_fraction"].values, w["coverage_fraction"].values),
-                           w["valid_precip_fraction"].values)
-            compl[:, :, :, j] = frac[:, None, :]
+            status[:, :, :, j] = w_status[:, None, :]
+            compl[:, :, :, j] = w_frac[:, None, :]
         else:
-            if dry is None or sp not in dry["species"].values:
+            if dry is None or sp not in d_species:
                 continue
+            k = d_species.index(sp)
             if sp in PARTICLES and bulk.any():
-                if options.bulk_correction == "none" and bool(dry["measured"].sel(species=sp).values[bulk].any()):
+                if options.bulk_correction == "none" and bool(d_meas[bulk, k].any()):
                     bad = [s for s, b in zip(sites, bulk) if b]
                     raise BudgetError(
                         f"site {bad[0]!r} has a bulk collector: its 'wet' deposition already "
                         f"holds some dry deposition, so particle dry deposition ({sp}) is not "
                         "added; name a correction in [budget] bulk_correction "
                         "('exclude_particles' or 'scale_wet', see docs/budget.md)")
-            dd = dry.sel(species=sp).reindex(receptor=list(receptors))
-            d = dd["deposition"].values
-            cov = dd["coverage"].values[:, None, :] * np.ones((1, n_r, 1))
-            vdc = dd["vd_coverage"].values
-            fs = dd["vd_filled_share"].values
-            meas = dd["measured"].values[:, None, None] * np.ones((1, n_r, n_p), bool)
-            k = list(dry["species"].values).index(sp)
-            sok = _season_ok(dry, season_cov, periods, options)[:, :, k][:, None, :]
+            d = d_dep[..., k]
+            cov = d_cov[:, None, :, k] * np.ones((1, n_r, 1))
+            vdc = d_vdc[..., k]
+            fs = d_fs[..., k]
+            meas = d_meas[:, None, None, k] * np.ones((1, n_r, n_p), bool)
+            sok = d_sok[:, :, k][:, None, :]
             st = _dry_status(cov, vdc, fs, meas, sok, options)
             if sp in PARTICLES and options.bulk_correction == "exclude_particles":
                 excl = bulk[:, None, None] & np.ones((1, n_r, n_p), bool)
@@ -489,8 +522,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                 "annual_factor": ("period", annual_factor(periods))})
     ds = add_totals(ds.assign(active=(("site", "receptor"), active)))
     if dry is not None:
-        brackets = {v: dry[v].reindex(receptor=list(receptors)) for v in dry.data_vars
-                    if v.startswith("bracket_")}
+        brackets = {v: dr[v].variable for v in dr.data_vars if v.startswith("bracket_")}
         ds = ds.assign(brackets)
     ds.attrs.update({"options": json.dumps(options.to_dict(), sort_keys=True),
                      "notes": json.dumps(notes),
@@ -542,22 +574,29 @@ def derived(ds: xr.Dataset) -> xr.Dataset:
     """
     sp = ds["species"].values
     el = ds["element"].values
-    d = ds["deposition"]
+    d = ds["deposition"].values
+    totals = list(ds["total"].values)
+    tot = ds["total_deposition"].values
 
     def part(mask):
-        m = xr.DataArray(mask, dims="component")
-        v = d.where(m)
-        return v.sum("component", min_count=1)
+        v = d[..., mask]
+        return np.where(np.isfinite(v).any(-1), np.nansum(v, -1), np.nan)
 
-    out = xr.Dataset()
-    out["oxidized_N"] = part(np.isin(sp, OXIDIZED_N) & (el == "N"))
-    out["reduced_N"] = part(np.isin(sp, REDUCED_N) & (el == "N"))
-    s_tot = ds["total_deposition"].sel(total="S_total")
-    out["potential_acidity_eq_ha"] = (element_deposition_in(s_tot, "S", "eq_ha")
-                                      + element_deposition_in(out["oxidized_N"], "N", "eq_ha")
-                                      + element_deposition_in(out["reduced_N"], "N", "eq_ha"))
-    for e in ("S", "N"):
-        tot = ds["total_deposition"].sel(total=f"{e}_total")
-        out[f"{e}_dry_share"] = ds["total_deposition"].sel(total=f"{e}_dry") / tot
-        out[f"{e}_wet_share"] = ds["total_deposition"].sel(total=f"{e}_wet") / tot
-    return out.drop_vars("total", errors="ignore")
+    def t(name):
+        return tot[..., totals.index(name)]
+
+    ox = part(np.isin(sp, OXIDIZED_N) & (el == "N"))
+    red = part(np.isin(sp, REDUCED_N) & (el == "N"))
+    dims = ("site", "receptor", "period")
+    out = {"oxidized_N": (dims, ox, {"units": "mol m-2", "long_name": "oxidized N deposition"}),
+           "reduced_N": (dims, red, {"units": "mol m-2", "long_name": "reduced N deposition"}),
+           "potential_acidity_eq_ha": (dims, element_deposition_in(t("S_total"), "S", "eq_ha")
+                                       + element_deposition_in(ox, "N", "eq_ha")
+                                       + element_deposition_in(red, "N", "eq_ha"),
+                                       {"units": "eq ha-1",
+                                        "long_name": "potential acidity 2 S + oxidized N + reduced N"})}
+    with np.errstate(invalid="ignore", divide="ignore"):
+        for e in ("S", "N"):
+            out[f"{e}_dry_share"] = (dims, t(f"{e}_dry") / t(f"{e}_total"), {"units": "1"})
+            out[f"{e}_wet_share"] = (dims, t(f"{e}_wet") / t(f"{e}_total"), {"units": "1"})
+    return xr.Dataset(out, coords={k: ds[k] for k in dims})

@@ -232,7 +232,7 @@ def deposition_rows(conc, quantity, site_index, starts, ends, times, vd, n_air=N
         mean_eff = np.where(n_valid > 0, total / n_valid, np.nan)
     dep = conc[:, None] * mean_eff * hours[:, None] * HOUR_S
     return {"deposition": dep, "mean_eff": mean_eff, "n_valid": n_valid, "hours": hours,
-            "a": a, "b": b, "cs": cs}
+            "a": a, "b": b, "cs": cs, "start": starts, "end": ends}
 
 
 def _inputs_for(air, species, vd: xr.DataArray, met, options):
@@ -315,13 +315,14 @@ def period_deposition(air: xr.Dataset, species: str, vd: xr.DataArray, met: xr.D
     return ds, r["cs"]
 
 
-def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods: pd.DataFrame, times):
+def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods: pd.DataFrame, times,
+                     starts=None, ends=None):
     """Numpy core of :func:`to_periods`.
 
     Parameters
     ----------
     site_index, a, b : ndarray of int (n,)
-        Site row and hour bounds of each sampling period.
+        Site row and hour bounds (on the hour axis) of each sampling period.
     deposition : ndarray (n, R)
         Deposition over each sampling period [mol m-2].
     cs : ndarray (S, R, T + 1)
@@ -329,6 +330,11 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods: pd.Data
     n_sites : int
     periods : pandas.DataFrame
     times : ndarray of datetime64 (T,)
+    starts, ends : ndarray of datetime64 (n,), optional
+        The sampling periods' real bounds.  Where a period reaches beyond the hour axis
+        (a record that starts or ends inside it), its hours outside the axis take the
+        mean Vd of its hours inside, so that the split among reporting periods and the
+        coverage follow the real overlap.
 
     Returns
     -------
@@ -337,25 +343,37 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods: pd.Data
     covered_hours : ndarray (S, P) [h]
     """
     n_r, n_p = cs.shape[1], len(periods)
-    pa, pb = _hour_bounds(times, periods["start"].values, periods["end"].values)
+    p_start, p_end = periods["start"].values, periods["end"].values
+    pa, pb = _hour_bounds(times, p_start, p_end)
     dep_out = np.zeros((n_sites, n_r, n_p))
     cov_hours = np.zeros((n_sites, n_p))
     if len(a):
-        lo = np.maximum(a[:, None], pa[None, :])          # (row, period)
+        lo = np.maximum(a[:, None], pa[None, :])          # (row, period) on the hour axis
         hi = np.minimum(b[:, None], pb[None, :])
-        ov = np.clip(hi - lo, 0, None)
+        ov = np.clip(hi - lo, 0, None).astype(float)
         lo_c = np.minimum(lo, hi)
         part = cs[site_index[:, None], :, hi] - cs[site_index[:, None], :, lo_c]  # (row, period, R)
         whole = (cs[site_index, :, b] - cs[site_index, :, a])[:, None, :]
+        inside = np.maximum(b - a, 0).astype(float)
+        if starts is not None:
+            hour = np.timedelta64(1, "h")
+            ov_real = np.clip((np.minimum(ends[:, None], p_end[None, :])
+                               - np.maximum(starts[:, None], p_start[None, :])) / hour, 0, None)
+            total_real = (ends - starts) / hour
+            with np.errstate(invalid="ignore", divide="ignore"):
+                mean = np.where(inside[:, None] > 0, whole[:, 0, :] / inside[:, None], 0.0)
+            part = part + (ov_real - ov)[:, :, None] * mean[:, None, :]
+            whole = whole + ((total_real - inside)[:, None] * mean)[:, None, :]
+            ov, inside = ov_real, total_real
         with np.errstate(invalid="ignore", divide="ignore"):
             share = np.where(whole > 0, part / whole,
-                             ov[:, :, None] / np.maximum(b - a, 1)[:, None, None])
+                             ov[:, :, None] / np.maximum(inside, 1)[:, None, None])
         dep = deposition[:, None, :] * share
         dep = np.where(np.isfinite(dep), dep, 0.0)
         acc = np.zeros((n_sites, n_p, n_r))
         np.add.at(acc, site_index, dep)
         dep_out = acc.transpose(0, 2, 1)
-        np.add.at(cov_hours, site_index, ov.astype(float))
+        np.add.at(cov_hours, site_index, ov)
     period_hours = periods["hours"].to_numpy(dtype=float)
     with np.errstate(invalid="ignore", divide="ignore"):
         scale = np.where(cov_hours > 0, period_hours[None, :] / cov_hours, np.nan)
@@ -396,7 +414,7 @@ def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
     si = pd.Index(list(sites)).get_indexer(rows["site"].values.astype(str))
     dep, coverage, cov_hours = share_to_periods(
         si, rows["hour_start"].values, rows["hour_end"].values, rows["deposition"].values,
-        cs, len(sites), periods, times)
+        cs, len(sites), periods, times, rows["start"].values, rows["end"].values)
     return xr.Dataset(
         {
             "deposition": (("site", "receptor", "period"), dep,

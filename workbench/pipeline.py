@@ -33,6 +33,13 @@ from .io.sites import SiteCatalogue
 from .tables import budget_table, span_table
 
 
+#: Wet options that act on periods only (completeness, fills, sea salt), so that a change
+#: of one of them does not screen the samples again.
+WET_PERIOD_OPTIONS = ("hydro_start_month", "straddle", "min_gauge_fraction",
+                      "min_coverage_fraction", "min_valid_precip_fraction", "min_valid_samples",
+                      "period_fill", "seasalt_tracer")
+
+
 def _key(obj) -> str:
     if obj is None:
         return "None"
@@ -74,6 +81,7 @@ class Study:
         self.inputs = inputs
         self.site_overrides = dict(site_overrides or {})
         self._cache = {}
+        self._memo = {}
         self.counts = {"screened": 0, "wet": 0, "velocities": 0, "dry": 0, "budget": 0}
 
     # ---------------------------------------------------------------- construction
@@ -111,10 +119,14 @@ class Study:
         return min(starts), max(ends)
 
     def periods(self, resolution="year", start=None, end=None, hydro_start_month=10):
-        s0, e0 = self.span()
-        start = np.datetime64(start) if start else s0
-        end = np.datetime64(end) if end else e0
-        return _periods.make_periods(start, end, resolution, hydro_start_month=hydro_start_month)
+        key = (resolution, str(start), str(end), hydro_start_month)
+        if ("periods", key) not in self._cache:
+            s0, e0 = self.span()
+            t0 = np.datetime64(start) if start else s0
+            t1 = np.datetime64(end) if end else e0
+            self._cache[("periods", key)] = _periods.make_periods(
+                t0, t1, resolution, hydro_start_month=hydro_start_month)
+        return self._cache[("periods", key)]
 
     # ---------------------------------------------------------------- stages
     def _cached(self, name, key, fn):
@@ -128,7 +140,8 @@ class Study:
         from .wet import screen
         if self.inputs.precipitation is None:
             return None
-        return self._cached("screened", _key(wet_options),
+        qa = {k: v for k, v in wet_options.to_dict().items() if k not in WET_PERIOD_OPTIONS}
+        return self._cached("screened", _key(qa),
                             lambda: screen(self.inputs.precipitation, wet_options, met=self.inputs.met))
 
     def wet(self, wet_options, periods: pd.DataFrame):
@@ -156,38 +169,56 @@ class Study:
         return self.inputs.met is not None and any(sp not in (fixed_velocity or {}) for sp in measured)
 
     def _velocity_sets(self, dry_options, budget_options, fixed_velocity, overrides):
+        """Gap-filled Vd per species, each cached on its own (model or fixed value)."""
         dry_species = [c[2] for c in COMPONENTS if c[1] == "dry"]
         need_model = self._needs_model(fixed_velocity)
         vd = self.velocities(dry_options, overrides) if need_model else None
         cat = self.catalogue(overrides)
         receptors = list(dict.fromkeys(r for s in cat for r in s.surfaces))
         met = self.inputs.met
-        template = xr.DataArray(np.full((len(cat.ids), len(receptors), met.sizes["time"]), np.nan),
-                                dims=("site", "receptor", "time"),
-                                coords={"site": cat.ids, "receptor": receptors,
-                                        "time": met["time"].values})
-        key = (repr(dry_options) + _key(overrides) + _key(fixed_velocity)
-               + str(budget_options.min_slot_hours) + str(need_model))
-        return self._cached("dry", "vel|" + key, lambda: prepare_velocities(
-            vd, dry_species, fixed_velocity, budget_options.min_slot_hours, template))
+        base = repr(dry_options) + _key(overrides) + str(budget_options.min_slot_hours)
+        out = {}
+        for sp in dry_species:
+            fixed = {sp: fixed_velocity[sp]} if sp in fixed_velocity else {}
+            if not fixed and vd is None:
+                continue
+
+            def make(sp=sp, fixed=fixed):
+                template = xr.DataArray(
+                    np.full((len(cat.ids), len(receptors), met.sizes["time"]), np.nan),
+                    dims=("site", "receptor", "time"),
+                    coords={"site": cat.ids, "receptor": receptors, "time": met["time"].values})
+                got = prepare_velocities(vd if not fixed else None, [sp], fixed,
+                                         budget_options.min_slot_hours, template)
+                return got.get(sp)
+
+            entry = self._cached("dry", f"vel|{sp}|{fixed.get(sp)}|" + (base if not fixed else
+                                                                        _key(overrides)), make)
+            if entry is not None:
+                out[sp] = entry
+        return out
 
     def dry_rows(self, dry_options, budget_options, fixed_velocity=None, overrides=None):
         """Deposition over each air-sampling period (independent of reporting periods)."""
         if self.inputs.air is None or self.inputs.met is None:
             return None
+        fixed_velocity = dict(fixed_velocity or {})
         vel = self._velocity_sets(dry_options, budget_options, fixed_velocity, overrides)
         if not vel:
             return None
-        key = repr(dry_options) + _key(overrides) + _key(fixed_velocity) + _key(budget_options)
+        flux = budget_options.flux_key()
+        memo = self._memo.setdefault(repr(dry_options) + _key(overrides) + flux, {})
+        key = repr(dry_options) + _key(overrides) + _key(fixed_velocity) + flux
         return self._cached("dry", "rows|" + key, lambda: dry_rows(
-            self.inputs.air, vel, self.inputs.met, self.catalogue(overrides).ids, budget_options))
+            self.inputs.air, vel, self.inputs.met, self.catalogue(overrides).ids, budget_options,
+            memo))
 
     def dry(self, dry_options, budget_options, periods, fixed_velocity=None, overrides=None):
         rows = self.dry_rows(dry_options, budget_options, fixed_velocity, overrides)
         if rows is None:
             return None, []
-        key = (repr(dry_options) + _key(overrides) + _key(fixed_velocity) + _key(budget_options)
-               + ",".join(periods["label"]))
+        key = (repr(dry_options) + _key(overrides) + _key(fixed_velocity)
+               + budget_options.flux_key() + ",".join(periods["label"]))
         return self._cached("dry", key, lambda: (dry_components(rows, periods), rows["notes"]))
 
     def season_coverage(self, dry_options, budget_options, years, fixed_velocity=None, overrides=None):

@@ -57,7 +57,13 @@ def test_wet_option_change_never_recomputes_velocities(app):
     app.controls["wet.min_gauge_fraction"].value = 0.37      # values no other test uses
     app.controls["wet.min_coverage_fraction"].value = 0.41
     assert app.study.counts["velocities"] == counts["velocities"]
-    assert app.study.counts["screened"] == counts["screened"] + 2
+    # completeness criteria act on periods only: the samples are not screened again
+    assert app.study.counts["screened"] == counts["screened"]
+    assert app.study.counts["wet"] > counts["wet"]
+    app.controls["wet.detection_limit"].value = "zero"       # a QA option: screened again
+    assert app.study.counts["screened"] == counts["screened"] + 1
+    assert app.study.counts["velocities"] == counts["velocities"]
+    app.controls["wet.detection_limit"].value = "half"
 
 
 def test_view_changes_do_not_recompute(app):
