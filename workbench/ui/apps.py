@@ -20,6 +20,7 @@ from .assumptions import ASSUMPTIONS, Settings
 from .controls import (Progress, caution_box, figure_widget, make_control, open_with_progress,
                        refresh, set_quietly, table_html)
 from .session import Session
+from .palette import TEMPLATE
 from .summaries import UNITS, change_line, excluded_samples, mean_totals
 
 #: Tabs of the site explorer below the budget: name -> what the figure needs.
@@ -92,9 +93,9 @@ class SiteExplorer(widgets.VBox):
         self._drawn = {}
         self.progress.start("first run")
         self.result = self._run()
-        self.figs = {"budget": figure_widget(self._figure("budget"))}
+        self.figs = {"budget": figure_widget(self._figure("budget", TEMPLATE))}
         for name in TABS:
-            self.figs[name] = figure_widget(self._figure(name))
+            self.figs[name] = figure_widget(self._figure(name, TEMPLATE))
             self._drawn[name] = self._tab_key(name)
         self.figs["budget"].add_class("wb-budget")
         self._totals = self._current_totals()
@@ -179,31 +180,34 @@ class SiteExplorer(widgets.VBox):
                            self.unit_w.value)
 
     # ------------------------------------------------------------------ figures
-    def _figure(self, name):
+    def _figure(self, name, template=None):
+        """The figure of a tab; built without a template for updates (the widget keeps
+        the one it was created with, and building a template costs tens of ms)."""
+        t = {"template": template}
         r, site, rec, unit = self.result, self.site, self.receptor_w.value, self.unit_w.value
         off = self.session.utc_offset(site)
         if name == "budget":
-            return figures.budget_bars(r.years, site, rec, None, unit)
+            return figures.budget_bars(r.years, site, rec, None, unit, **t)
         if name == "monthly fluxes":
             if r.options.get("resolution") != "month":
                 self.result = r = self.session.run(self.settings, site, *self.years, "month")
-            return figures.monthly_fluxes(r.budget, site, rec, unit)
+            return figures.monthly_fluxes(r.budget, site, rec, unit, **t)
         if name == "deposition velocity":
             if r.velocities is None:
                 return go.Figure(layout=dict(title="no deposition velocities (fixed or no met)"))
-            return figures_dry.velocity_diurnal(r.velocities, site, rec, utc_offset_h=off)
+            return figures_dry.velocity_diurnal(r.velocities, site, rec, utc_offset_h=off, **t)
         if name == "resistances":
             if r.velocities is None:
                 return go.Figure(layout=dict(title="no resistances (fixed velocities or no met)"))
-            return figures_dry.resistance_breakdown(r.velocities, site, rec, self.gas_w.value, off)
+            return figures_dry.resistance_breakdown(r.velocities, site, rec, self.gas_w.value, off, **t)
         if name == "ion balance":
             return figures_wet.ion_balance(r.screened, site, self.settings.wet,
-                                           *self.session.bounds(*self.years))
+                                           *self.session.bounds(*self.years), **t)
         if name == "capture efficiency":
             return figures_wet.capture_efficiency(r.screened, site, self.settings.wet,
-                                                  *self.session.bounds(*self.years))
+                                                  *self.session.bounds(*self.years), **t)
         if name == "excluded samples":
-            return figures_wet.excluded_by_reason(r.screened, site, *self.session.bounds(*self.years))
+            return figures_wet.excluded_by_reason(r.screened, site, *self.session.bounds(*self.years), **t)
         raise KeyError(name)
 
     def _tab_key(self, name):

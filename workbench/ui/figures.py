@@ -46,7 +46,7 @@ def _hover_value(value, status, completeness, axis):
     return f"{value:.3g} {axis}<br>status {status}, completeness {comp}"
 
 
-def budget_bars(ds, site, receptor, period=None, unit="kg/ha/yr", fig=None):
+def budget_bars(ds, site, receptor, period=None, unit="kg/ha/yr", fig=None, template=TEMPLATE):
     """Stacked bars of the wet and dry parts by species, S and N side by side.
 
     One bar per element and period (x axis: element, then period).  Bars of
@@ -117,11 +117,11 @@ def budget_bars(ds, site, receptor, period=None, unit="kg/ha/yr", fig=None):
     fig.update_layout(barmode="stack", title=f"Budget · {site} · {receptor}",
                       yaxis_title=axis_text(unit), xaxis_title="element and period",
                       legend=dict(title="pathway and species", groupclick="toggleitem"),
-                      template=TEMPLATE, height=HEIGHT)
+                      template=template, height=HEIGHT)
     return fig
 
 
-def monthly_fluxes(ds_month, site, receptor, unit="kg/ha/yr"):
+def monthly_fluxes(ds_month, site, receptor, unit="kg/ha/yr", template=TEMPLATE):
     """Monthly wet and dry deposition of S (top) and N (bottom) over the years.
 
     Months whose part is not complete are drawn with open markers (hover: status).
@@ -154,12 +154,12 @@ def monthly_fluxes(ds_month, site, receptor, unit="kg/ha/yr"):
                                               "%{customdata}<extra></extra>")), row=row, col=1)
         fig.update_yaxes(title_text=axis_text(unit, True, el), row=row, col=1, rangemode="tozero")
     fig.update_xaxes(title_text="month (UTC)", row=2, col=1)
-    fig.update_layout(title=f"Monthly deposition · {site} · {receptor}", template=TEMPLATE,
+    fig.update_layout(title=f"Monthly deposition · {site} · {receptor}", template=template,
                       height=HEIGHT + 100, legend_title="element and pathway")
     return fig
 
 
-def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr"):
+def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr", template=TEMPLATE):
     """Response of each total to one assumption, the baseline marked.
 
     Parameters
@@ -202,12 +202,12 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
         fig.update_xaxes(title_text=label, row=1, col=col)
     if not cat and baseline is not None:
         fig.add_vline(x=baseline, line=dict(color=OKABE_ITO["grey"], dash="dot"))
-    fig.update_layout(title=f"Sensitivity of the totals to {label}", template=TEMPLATE,
+    fig.update_layout(title=f"Sensitivity of the totals to {label}", template=template,
                       height=HEIGHT)
     return fig
 
 
-def network_totals(table: pd.DataFrame, unit="kg/ha/yr"):
+def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
     """Annual S and N totals of every site over the years.
 
     Totals that are not rankable (a partial set of species, or failing completeness)
@@ -248,12 +248,12 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr"):
         fig.update_yaxes(title_text=axis_text(unit, element=el), row=1, col=col, rangemode="tozero")
         fig.update_xaxes(title_text="year", type="category", row=1, col=col)
     fig.update_layout(title="Annual totals of the network (each site on its own surface)",
-                      template=TEMPLATE, height=HEIGHT, legend_title="site")
+                      template=template, height=HEIGHT, legend_title="site")
     return fig
 
 
 def network_ranking_bars(ranked: pd.DataFrame, apart: pd.DataFrame, element: str,
-                         unit="kg/ha/yr"):
+                         unit="kg/ha/yr", template=TEMPLATE):
     """Sites ranked by their mean annual total; the others listed apart, unranked.
 
     Parameters
@@ -279,6 +279,6 @@ def network_ranking_bars(ranked: pd.DataFrame, apart: pd.DataFrame, element: str
                            bgcolor=ENVELOPE_FILL)
     fig.update_layout(title=f"{element} total, mean of the years: complete totals ranked",
                       xaxis_title=axis_text(unit, element=element), yaxis_title="rank · site",
-                      yaxis=dict(autorange="reversed"), template=TEMPLATE,
+                      yaxis=dict(autorange="reversed"), template=template,
                       height=HEIGHT, margin=dict(b=160))
     return fig

@@ -32,7 +32,7 @@ def _season_panels():
                          subplot_titles=SEASON_NAMES, horizontal_spacing=0.03)
 
 
-def velocity_diurnal(vel, site, receptor, species=DRY_SPECIES, utc_offset_h=0.0):
+def velocity_diurnal(vel, site, receptor, species=DRY_SPECIES, utc_offset_h=0.0, template=TEMPLATE):
     """Mean deposition velocity by hour of day, one panel per season, per species.
 
     Parameters
@@ -68,11 +68,11 @@ def velocity_diurnal(vel, site, receptor, species=DRY_SPECIES, utc_offset_h=0.0)
                              range=[0, 23], dtick=6)
     fig.update_yaxes(title_text="mean Vd [cm s-1]", row=1, col=1, rangemode="tozero")
     fig.update_layout(title=f"Deposition velocity, mean diurnal cycle · {site} · {receptor}",
-                      template=TEMPLATE, height=HEIGHT, legend_title="species")
+                      template=template, height=HEIGHT, legend_title="species")
     return fig
 
 
-def resistance_breakdown(vel, site, receptor, gas="SO2", utc_offset_h=0.0):
+def resistance_breakdown(vel, site, receptor, gas="SO2", utc_offset_h=0.0, template=TEMPLATE):
     """Median Ra, Rb, Rc (and their sum) of one gas by hour of day, per season.
 
     Medians are shown because a mean resistance is dominated by the calm night hours
@@ -101,5 +101,5 @@ def resistance_breakdown(vel, site, receptor, gas="SO2", utc_offset_h=0.0):
     fig.update_yaxes(type="log", row=1)
     fig.update_yaxes(title_text="median resistance [s m-1]", row=1, col=1)
     fig.update_layout(title=f"Resistances of {gas} (medians by hour) · {site} · {receptor}",
-                      template=TEMPLATE, height=HEIGHT, legend_title="resistance")
+                      template=template, height=HEIGHT, legend_title="resistance")
     return fig

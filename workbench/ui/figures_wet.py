@@ -66,7 +66,7 @@ def ion_balance_envelope(tiers, upper: float, lower: float = ENVELOPE_LOW):
     return an, ce
 
 
-def ion_balance(screened, site=None, options: WetOptions | None = None, start=None, end=None):
+def ion_balance(screened, site=None, options: WetOptions | None = None, start=None, end=None, template=TEMPLATE):
     """Cation sum against anion sum per sample, with the acceptance envelope.
 
     Parameters
@@ -115,12 +115,12 @@ def ion_balance(screened, site=None, options: WetOptions | None = None, start=No
     fig.update_layout(title="Ion balance: cations against anions" + (f" · {site}" if site else ""),
                       xaxis=dict(title="anion sum AN [ueq L-1]", type="log"),
                       yaxis=dict(title="cation sum CE [ueq L-1]", type="log"),
-                      template=TEMPLATE, height=HEIGHT, legend_title="sample status")
+                      template=template, height=HEIGHT, legend_title="sample status")
     return fig
 
 
 def capture_efficiency(screened, site=None, options: WetOptions | None = None, start=None,
-                       end=None):
+                       end=None, template=TEMPLATE):
     """Collector depth over gauge depth per sample, with the accepted ranges.
 
     Returns
@@ -159,11 +159,11 @@ def capture_efficiency(screened, site=None, options: WetOptions | None = None, s
                       + (f" · {site}" if site else ""),
                       xaxis=dict(title="gauge depth [mm]", type="log"),
                       yaxis=dict(title="capture ratio [1]", rangemode="tozero"),
-                      template=TEMPLATE, height=HEIGHT, legend_title="sample status")
+                      template=template, height=HEIGHT, legend_title="sample status")
     return fig
 
 
-def excluded_by_reason(screened, site=None, start=None, end=None):
+def excluded_by_reason(screened, site=None, start=None, end=None, template=TEMPLATE):
     """Samples flagged or excluded, counted by reason (horizontal bars by status).
 
     Returns
@@ -185,6 +185,6 @@ def excluded_by_reason(screened, site=None, start=None, end=None):
                       + (f" · {site}" if site else ""),
                       xaxis=dict(title="samples", dtick=1 if most <= INTEGER_TICKS_UP_TO else None,
                                  rangemode="tozero"),
-                      yaxis=dict(title="reason", autorange="reversed"), template=TEMPLATE,
+                      yaxis=dict(title="reason", autorange="reversed"), template=template,
                       height=max(HEIGHT // 2, 60 + 28 * len(reasons)), margin=dict(l=260))
     return fig
