@@ -16,7 +16,7 @@ CAUTION = (
     "percent; wet deposition depends on sampling efficiency and on how gaps are filled. "
     "Read the completeness and status of each number and the list of what is left out "
     "before comparing sites or years. For regulatory or compliance work, follow the "
-    "methods your authority requires; this report does not replace local rules or "
+    "methods your authority requires; these estimates do not replace local rules or "
     "accredited laboratory and network practice.")
 
 
