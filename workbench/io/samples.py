@@ -9,6 +9,7 @@ import re
 from pathlib import Path
 
 import numpy as np
+import pandas as pd
 import xarray as xr
 
 from .. import flags as _flags
@@ -158,13 +159,14 @@ def read_precipitation(path, catalogue):
     else:
         cond = np.full(n, np.nan)
     flag_text = tab.text("flags") if tab.has("flags") else np.full(n, "", object)
-    codes = [_flags.split(f) for f in flag_text]  # short strings; one pass
-    for i, cs in enumerate(codes):
-        for c in cs:
-            if c not in _flags.FLAGS:
-                raise tab.error("unknown flag code", row=i, column="flags", value=c,
-                                expected="codes among " + " ".join(_flags.FLAGS))
-    flag_norm = np.array([" ".join(cs) for cs in codes], dtype=object)
+    codes = pd.Series(flag_text, dtype=object).str.replace(r"[,;]", " ", regex=True).str.split()
+    each = codes.explode()
+    bad = each.notna() & ~each.isin(list(_flags.FLAGS))
+    if bad.any():
+        i = int(bad.index[np.flatnonzero(bad.to_numpy())[0]])
+        raise tab.error("unknown flag code", row=i, column="flags", value=each[bad].iloc[0],
+                        expected="codes among " + " ".join(_flags.FLAGS))
+    flag_norm = codes.str.join(" ").to_numpy(dtype=object)
     parts.append(np.where(flag_norm != "", "flags " + flag_norm.astype(str), ""))
     ion_cols = _species_columns(tab, _species.PRECIP_IONS)
     conc = _concentrations(tab, ion_cols, ("amount_density",), parts, n)
