@@ -39,6 +39,9 @@ def atomic_write(path: Path, writer) -> Path:
     os.close(fd)
     try:
         writer(Path(tmp))
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)  # mkstemp makes 0600; give the usual file mode
         os.replace(tmp, path)
     except BaseException:
         Path(tmp).unlink(missing_ok=True)
@@ -117,9 +120,47 @@ def budget_dataset(result) -> xr.Dataset:
     return ds
 
 
+#: Variables of velocities.nc besides ``rb_*``, ``rc_<gas>`` and ``vd_*`` (the paths of Rc
+#: stay in the Python result; writing them all made the demo file near 1 GB).
+VELOCITY_FILE_VARIABLES = ("friction_velocity", "obukhov_length", "ra", "roughness_length",
+                           "displacement_height", "seasonal_category", "surface_wet",
+                           "ustar_floor_used", "ra_cap_used", "ra_height_raised")
+
+
 def velocities_dataset(vd: xr.Dataset) -> xr.Dataset:
-    """The hourly resistances and velocities (Ra, Rb, Rc, Vd and friends)."""
-    return vd
+    """The hourly Ra, Rb, Rc and Vd of the surfaces that are wanted, for velocities.nc.
+
+    The (site, receptor) pairs a site asks for are stacked into one ``surface``
+    dimension (with ``surface_site`` and ``surface_receptor`` labels), floats are
+    written as float32, and the individual paths of Rc are left out (they are in the
+    Python result, :attr:`workbench.pipeline.Result.velocities`).
+    """
+    keep = [v for v in vd.data_vars
+            if v in VELOCITY_FILE_VARIABLES or v.startswith(("rb_", "vd_", "n_"))
+            or (v.startswith("rc_") and v.count("_") == 1)]
+    ds = vd[keep]
+    per_hour = [v for v in keep if "time" in vd[v].dims and {"site", "receptor"} <= set(vd[v].dims)]
+    other = [v for v in keep if v not in per_hour]
+    active = vd["active"].values if "active" in vd else np.ones(
+        (vd.sizes["site"], vd.sizes["receptor"]), bool)
+    si, ri = np.nonzero(active)
+    sites, recs = vd["site"].values[si].astype(str), vd["receptor"].values[ri].astype(str)
+    out = {}
+    for v in per_hour:
+        a = ds[v].transpose("site", "receptor", "time", ...).values[si, ri]
+        if a.dtype.kind == "f":
+            a = a.astype("float32")
+        out[v] = (("surface", "time") + ds[v].dims[3:], a, dict(ds[v].attrs))
+    res = xr.Dataset(out, coords={"time": vd["time"].values,
+                                  "surface_site": ("surface", sites),
+                                  "surface_receptor": ("surface", recs)})
+    res = res.assign_coords(surface=[f"{a}/{b}" for a, b in zip(sites, recs)])
+    for v in other:
+        res[v] = ds[v]
+    res.attrs.update(vd.attrs)
+    res.attrs["note"] = ("surfaces are the (site, receptor) pairs a site asks for; the paths "
+                         "of Rc are in the Python result")
+    return res
 
 
 def provenance(scenario, inputs_paths: dict, started: _dt.datetime) -> dict:
