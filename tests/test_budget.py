@@ -157,3 +157,87 @@ def test_provenance_hash_changes_with_one_byte(tmp_path):
     assert p1["inputs"]["met"]["sha256"] == p2["inputs"]["met"]["sha256"]
     assert p2["scenario"]["budget"]["sulfate_basis"] == "total"
     assert p2["scenario"]["dry"]["fixed_velocity"] == VD
+
+
+def _with_particles(tmp_path, collector="wet_only", correction=None, pna=True):
+    tmp_path.mkdir(parents=True, exist_ok=True)
+    sc = _write(tmp_path)
+    if collector != "wet_only":
+        sites = tmp_path / "sites.toml"
+        sites.write_text(sites.read_text() + f'collector = "{collector}"\n')
+    air = tmp_path / "air.csv"
+    lines = air.read_text().splitlines()
+    lines[1] += ",pSO4 [ug/m3]" + (",pNa [ug/m3]" if pna else "")
+    lines[2:] = [ln + ",2.0" + (",1.0" if pna else "") for ln in lines[2:]]
+    air.write_text("\n".join(lines) + "\n")
+    text = sc.read_text().replace("SO2 = 0.5", "SO2 = 0.5\npSO4 = 0.2")
+    if correction:
+        text = text.replace('sulfate_basis = "total"', f'sulfate_basis = "total"\nbulk_correction = "{correction}"')
+    sc.write_text(text)
+    return sc
+
+
+def test_nss_particulate_sulfate_from_sodium(tmp_path):
+    """nss pSO4 = pSO4 - r pNa with Keene et al. (1986) SO4/Na = 0.121 in equivalents,
+    i.e. 0.0605 mol/mol (arithmetic)."""
+    sc = _with_particles(tmp_path)
+    sc.write_text(sc.read_text().replace('sulfate_basis = "total"', 'sulfate_basis = "nss"'))
+    written, _, _ = run_scenario(sc, tmp_path / "out", quiet=True)
+    table = pd.read_csv(written["budget.csv"])
+    so4 = 2.0e-6 / 96.056          # mol/m3
+    na = 1.0e-6 / 22.990
+    nss = so4 - 0.121 / 2 * na
+    expected = nss * 0.2 / 100 * 28 * 86400 * 32.06e-3 * 1e4
+    assert _get(table, "S", "dry", "pSO4")["flux_kg_ha"] == pytest.approx(expected, rel=1e-3)
+
+
+def test_bulk_collector_corrections(tmp_path):
+    """scale_wet multiplies the bulk deposition by bulk_wet_factor (0.8); exclude_particles
+    leaves particle dry deposition out as missing, with the reason in the note."""
+    base, _, _ = run_scenario(_with_particles(tmp_path / "a", pna=False), tmp_path / "a" / "o", quiet=True)
+    wet_only = _get(pd.read_csv(base["budget.csv"]), "S", "wet", "SO4")["flux_kg_ha"]
+    scaled, _, _ = run_scenario(_with_particles(tmp_path / "b", "bulk", "scale_wet", pna=False),
+                                tmp_path / "b" / "o", quiet=True)
+    t = pd.read_csv(scaled["budget.csv"])
+    assert _get(t, "S", "wet", "SO4")["flux_kg_ha"] == pytest.approx(0.8 * wet_only)
+    assert "scale_wet" in _get(t, "S", "wet", "SO4")["note"]
+    assert _get(t, "S", "dry", "pSO4")["status"] == "complete"
+    excl, _, _ = run_scenario(_with_particles(tmp_path / "c", "bulk", "exclude_particles", pna=False),
+                              tmp_path / "c" / "o", quiet=True)
+    t = pd.read_csv(excl["budget.csv"])
+    row = _get(t, "S", "dry", "pSO4")
+    assert row["status"] == "missing" and np.isnan(row["flux_kg_ha"])
+    assert "left out at a bulk collector" in row["note"]
+    assert "pSO4" in _get(t, "S", "total", "all")["missing_components"].split()
+
+
+def test_potential_acidity_and_shares(tmp_path):
+    """Potential acidity = 2 nss-S + oxidized N + reduced N [eq/ha] (common practice)."""
+    sc = _write(tmp_path)
+    written, result, _ = run_scenario(sc, tmp_path / "out", quiet=True)
+    t = pd.read_csv(written["budget.csv"])
+    s = pd.read_csv(written["summary.csv"]).iloc[0]
+    s_eq = _get(t, "S", "total", "all")["flux_eq_ha"]
+    n_eq = _get(t, "N", "total", "all")["flux_eq_ha"]
+    assert s["potential_acidity_eq_ha"] == pytest.approx(s_eq + n_eq)
+    assert s["oxidized_N_kg_ha"] + s["reduced_N_kg_ha"] == pytest.approx(_get(t, "N", "total", "all")["flux_kg_ha"])
+    assert s["S_dry_share"] + s["S_wet_share"] == pytest.approx(1.0)
+
+
+def test_span_mean_of_passing_years():
+    """The span is the mean of the yearly rates of the years that pass; flagged years
+    are excluded and listed."""
+    from workbench.tables import span_table
+    rows = []
+    for year, value, status in ((2019, 10.0, "complete"), (2020, 30.0, "flagged"), (2021, 14.0, "partial")):
+        for pathway, species in (("wet", "SO4"), ("total", "all")):
+            rows.append(dict(site="a", receptor="grass", period_start=pd.Timestamp(f"{year}-01-01"),
+                             period_end=pd.Timestamp(f"{year + 1}-01-01"), element="S",
+                             pathway=pathway, species=species, flux_kg_ha=value, flux_eq_ha=value * 62.4,
+                             flux_kg_ha_yr=value, flux_eq_ha_yr=value * 62.4, completeness=0.9,
+                             status=status, period=str(year)))
+    span = span_table(pd.DataFrame(rows))
+    tot = span[span["species"] == "all"].iloc[0]
+    assert tot["flux_kg_ha_yr"] == pytest.approx(12.0)
+    assert tot["years_used"] == "2019 2021" and tot["years_excluded"] == "2020"
+    assert tot["status"] == "partial"

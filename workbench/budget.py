@@ -39,6 +39,14 @@ PARTICLES = ("pSO4", "pNO3", "pNH4")
 #: gas/particle pairs whose split a filter pack may bias (ammonium nitrate volatility).
 PAIRS = {"nitrate": ("HNO3", "pNO3"), "ammonium": ("NH3", "pNH4")}
 STATUS_ORDER = ("complete", "filled", "flagged")
+#: The completeness fractions reported beside each component [1].
+FRACTIONS = {
+    "wet_gauge_fraction": "fraction of the period with a valid gauge record",
+    "wet_coverage_fraction": "fraction of the period covered by valid or dry samples",
+    "wet_valid_precip_fraction": "fraction of the precipitation with valid chemistry",
+    "air_coverage": "fraction of the period's hours with a concentration",
+    "vd_coverage": "fraction of the period's hours with a modelled (not filled) Vd",
+}
 
 #: What the budget leaves out, with an order of magnitude where the literature gives one
 #: (ranges recalled from memory of review papers; see docs/budget.md).
@@ -291,6 +299,8 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None):
             r = deposition_rows(conc[rows], quantity, si, air_in["start"].values[rows],
                                 air_in["end"].values[rows], times, v_np, n_air, weight)
             r["site_index"] = si
+            r["conc"] = conc[rows]
+            r["quantity"] = quantity
             memo[key] = (r, notes)
         return memo[key]
 
@@ -337,7 +347,7 @@ def dry_components(rows: dict, periods: pd.DataFrame):
         whole period, ``coverage`` [1] (site, period, species), ``vd_coverage`` and
         ``vd_filled_share`` [1], ``measured`` (site, species), and the pair brackets.
     """
-    from .dryflux import _hour_bounds, share_to_periods
+    from .dryflux import _hour_bounds, period_mean, share_to_periods
     species_list = [c[2] for c in COMPONENTS if c[1] == "dry"]
     sites, receptors, times = rows["sites"], rows["receptors"], rows["times"]
     n_s, n_r, n_p, n_k = len(sites), len(receptors), len(periods), len(species_list)
@@ -345,6 +355,7 @@ def dry_components(rows: dict, periods: pd.DataFrame):
     cov = np.zeros((n_s, n_p, n_k))
     vd_cov = np.full((n_s, n_r, n_p, n_k), np.nan)
     filled_share = np.full((n_s, n_r, n_p, n_k), np.nan)
+    conc = np.full((n_s, n_p, n_k), np.nan)
     pa, pb = _hour_bounds(times, periods["start"].values, periods["end"].values)
     hours_p = periods["hours"].to_numpy(dtype=float)
 
@@ -355,8 +366,11 @@ def dry_components(rows: dict, periods: pd.DataFrame):
     for k, sp in enumerate(species_list):
         if sp not in rows["species"]:
             continue
-        d, c, _ = agg(rows["species"][sp])
+        r = rows["species"][sp]
+        d, c, _ = agg(r)
         dep[..., k], cov[..., k] = d, c
+        if r.get("quantity") == "amount_density":
+            conc[..., k] = period_mean(r["site_index"], r["start"], r["end"], r["conc"], n_s, periods)
         c_valid, c_fill = rows["vd_cum"][sp]
         vd_cov[..., k] = (c_valid[:, :, pb] - c_valid[:, :, pa]) / hours_p
         filled_share[..., k] = (c_fill[:, :, pb] - c_fill[:, :, pa]) / np.maximum(pb - pa, 1)
@@ -365,7 +379,10 @@ def dry_components(rows: dict, periods: pd.DataFrame):
          "coverage": (("site", "period", "species"), cov, {"units": "1"}),
          "vd_coverage": (("site", "receptor", "period", "species"), vd_cov, {"units": "1"}),
          "vd_filled_share": (("site", "receptor", "period", "species"), filled_share, {"units": "1"}),
-         "measured": (("site", "species"), rows["measured"])},
+         "measured": (("site", "species"), rows["measured"]),
+         "concentration": (("site", "period", "species"), conc,
+                           {"units": "mol m-3", "long_name": "time-weighted mean concentration "
+                            "over the covered hours (amount of species; ambient)"})},
         coords={"site": sites, "receptor": receptors, "period": periods["label"].values,
                 "species": species_list})
     for (pair, how), r in rows["bracket"].items():
@@ -446,6 +463,9 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     dep = np.full((n_s, n_r, n_p, n_c), np.nan)
     status = np.full((n_s, n_r, n_p, n_c), "missing", dtype=object)
     compl = np.full((n_s, n_r, n_p, n_c), np.nan)
+    #: the fractions behind `completeness`, per component (NaN where not applicable)
+    fractions = {name: np.full((n_s, n_r, n_p, n_c), np.nan) for name in FRACTIONS}
+    comp_note = np.full((n_s, n_r, n_p, n_c), "", dtype=object)
     active = np.array([[r in catalogue[s].surfaces for r in receptors] for s in sites])
     bulk = np.array([catalogue[s].collector == "bulk" for s in sites])
     notes = []
@@ -475,6 +495,13 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             dep[:, :, :, j] = d[:, None, :]
             status[:, :, :, j] = w_status[:, None, :]
             compl[:, :, :, j] = w_frac[:, None, :]
+            for name, var in (("wet_gauge_fraction", "gauge_fraction"),
+                              ("wet_coverage_fraction", "coverage_fraction"),
+                              ("wet_valid_precip_fraction", "valid_precip_fraction")):
+                fractions[name][:, :, :, j] = w[var].values[:, None, :]
+            if options.bulk_correction == "scale_wet" and bulk.any():
+                comp_note[bulk, :, :, j] = (f"bulk deposition x {options.bulk_wet_factor:g} "
+                                            "(bulk_correction scale_wet)")
         else:
             if dry is None or sp not in d_species:
                 continue
@@ -496,20 +523,31 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             st = _dry_status(cov, vdc, fs, meas, sok, options)
             if sp in PARTICLES and options.bulk_correction == "exclude_particles":
                 excl = bulk[:, None, None] & np.ones((1, n_r, n_p), bool)
-                d = np.where(excl, 0.0, d)
-                st = np.where(excl & (st != "missing"), "complete", st)
+                # not known apart from the bulk "wet" deposition: missing, and said why
+                d = np.where(excl, np.nan, d)
+                st = np.where(excl, "missing", st)
+                comp_note[..., j] = np.where(excl, "left out at a bulk collector: counted in "
+                                             "its wet deposition (bulk_correction "
+                                             "exclude_particles)", comp_note[..., j])
                 if excl.any():
                     notes.append(f"{sp}: particle dry deposition left out at bulk-collector sites "
                                  "(taken as caught by the collector)")
             dep[:, :, :, j] = d
             status[:, :, :, j] = st
             compl[:, :, :, j] = np.fmin(cov, vdc)
+            fractions["air_coverage"][:, :, :, j] = cov
+            fractions["vd_coverage"][:, :, :, j] = vdc
     dep = np.where(status == "missing", np.nan, dep)
+    compl = np.where(status == "missing", np.nan, compl)
     comp_index = pd.MultiIndex.from_tuples(comps, names=("element", "pathway", "species"))
     ds = xr.Dataset(
         {"deposition": (("site", "receptor", "period", "component"), dep,
                         {"units": "mol m-2", "long_name": "deposition as amount of element"}),
-         "completeness": (("site", "receptor", "period", "component"), compl, {"units": "1"}),
+         "completeness": (("site", "receptor", "period", "component"), compl,
+                          {"units": "1", "long_name": "smallest of the component's fractions"}),
+         **{name: (("site", "receptor", "period", "component"), np.where(status == "missing", np.nan, v),
+                   {"units": "1", "long_name": FRACTIONS[name]}) for name, v in fractions.items()},
+         "note": (("site", "receptor", "period", "component"), comp_note),
          "status": (("site", "receptor", "period", "component"), status)},
         coords={"site": sites, "receptor": list(receptors), "period": periods["label"].values,
                 "component": [f"{e}/{p}/{s}" for e, p, s in comps],
@@ -523,7 +561,8 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     ds = add_totals(ds.assign(active=(("site", "receptor"), active)))
     if dry is not None:
         brackets = {v: dr[v].variable for v in dr.data_vars if v.startswith("bracket_")}
-        ds = ds.assign(brackets)
+        brackets["air_concentration"] = dr["concentration"].rename(species="air_species").variable
+        ds = ds.assign(brackets).assign_coords(air_species=dr["species"].values)
     ds.attrs.update({"options": json.dumps(options.to_dict(), sort_keys=True),
                      "notes": json.dumps(notes),
                      "omissions": json.dumps([list(o) for o in OMISSIONS])})
@@ -588,15 +627,40 @@ def derived(ds: xr.Dataset) -> xr.Dataset:
     ox = part(np.isin(sp, OXIDIZED_N) & (el == "N"))
     red = part(np.isin(sp, REDUCED_N) & (el == "N"))
     dims = ("site", "receptor", "period")
-    out = {"oxidized_N": (dims, ox, {"units": "mol m-2", "long_name": "oxidized N deposition"}),
-           "reduced_N": (dims, red, {"units": "mol m-2", "long_name": "reduced N deposition"}),
+    kg, eq = "kg N ha-1", "eq ha-1"
+    out = {"oxidized_N_kg_ha": (dims, element_deposition_in(ox, "N", "kg_ha"),
+                                {"units": kg, "long_name": "oxidized N deposition (NO3, HNO3, pNO3, NO2)"}),
+           "oxidized_N_eq_ha": (dims, element_deposition_in(ox, "N", "eq_ha"), {"units": eq}),
+           "reduced_N_kg_ha": (dims, element_deposition_in(red, "N", "kg_ha"),
+                               {"units": kg, "long_name": "reduced N deposition (NH4, NH3, pNH4)"}),
+           "reduced_N_eq_ha": (dims, element_deposition_in(red, "N", "eq_ha"), {"units": eq}),
            "potential_acidity_eq_ha": (dims, element_deposition_in(t("S_total"), "S", "eq_ha")
                                        + element_deposition_in(ox, "N", "eq_ha")
                                        + element_deposition_in(red, "N", "eq_ha"),
-                                       {"units": "eq ha-1",
+                                       {"units": eq,
                                         "long_name": "potential acidity 2 S + oxidized N + reduced N"})}
     with np.errstate(invalid="ignore", divide="ignore"):
         for e in ("S", "N"):
             out[f"{e}_dry_share"] = (dims, t(f"{e}_dry") / t(f"{e}_total"), {"units": "1"})
             out[f"{e}_wet_share"] = (dims, t(f"{e}_wet") / t(f"{e}_total"), {"units": "1"})
+        # the bracket of dry N: each gas/particle pair all as gas, and all as particle
+        dry_n = t("N_dry")
+        for how in ("all_gas", "all_particle"):
+            alt = dry_n.copy()
+            for pair, members in PAIRS.items():
+                v = f"bracket_{pair}_{how}"
+                measured = part(np.isin(sp, members) & (ds["pathway"].values == "dry"))
+                alt = alt - measured + (ds[v].values if v in ds else np.nan)
+            out[f"dry_N_{how}_kg_ha"] = (dims, element_deposition_in(alt, "N", "kg_ha"),
+                                         {"units": kg, "long_name": f"dry N with the nitrate and "
+                                          f"ammonium pairs {how.replace('_', ' ')}"})
+        if "air_concentration" in ds:
+            c = ds["air_concentration"]
+            n_mass = 14.007e-3 * 1e9  # mol N -> ug N
+            for name, (gas, prt) in (("total_nitrate", PAIRS["nitrate"]),
+                                     ("total_ammonia_ammonium", PAIRS["ammonium"])):
+                if gas in c["air_species"].values and prt in c["air_species"].values:
+                    v = (c.sel(air_species=gas) + c.sel(air_species=prt)).values * n_mass
+                    out[f"{name}_ug_N_m3"] = (("site", "period"), v, {
+                        "units": "ug N m-3", "long_name": f"{gas} + {prt}, time-weighted mean"})
     return xr.Dataset(out, coords={k: ds[k] for k in dims})

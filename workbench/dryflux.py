@@ -427,3 +427,33 @@ def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
         coords={"site": list(sites), "receptor": rows["receptor"].values,
                 "period": periods["label"].values},
     )
+
+
+def period_mean(site_index, starts, ends, values, n_sites, periods: pd.DataFrame):
+    """Time-weighted mean of interval values (concentrations) over reporting periods.
+
+    Parameters
+    ----------
+    site_index : ndarray of int (n,)
+    starts, ends : ndarray of datetime64 (n,)
+    values : ndarray (n,)
+        E.g. concentrations [mol m-3].
+    n_sites : int
+    periods : pandas.DataFrame
+
+    Returns
+    -------
+    ndarray (S, P)
+        Mean over the covered hours of each period (NaN where none), same unit.
+    """
+    hour = np.timedelta64(1, "h")
+    ov = np.clip((np.minimum(ends[:, None], periods["end"].values[None, :])
+                  - np.maximum(starts[:, None], periods["start"].values[None, :])) / hour, 0, None)
+    ok = np.isfinite(values)
+    w = np.where(ok[:, None], ov, 0.0)
+    num = np.zeros((n_sites, len(periods)))
+    den = np.zeros((n_sites, len(periods)))
+    np.add.at(num, site_index, w * np.where(ok, values, 0.0)[:, None])
+    np.add.at(den, site_index, w)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(den > 0, num / den, np.nan)

@@ -37,6 +37,10 @@ def _rows(ds: xr.Dataset, dep_var, status_var, compl_var, comp_dim, element, pat
         "status": ds[status_var].transpose("site", "receptor", "period", comp_dim).values.reshape(-1),
         "flux_mmol_m2": mmol, "period": ds["period"].values[idx[2]],
     })
+    for extra in ("wet_gauge_fraction", "wet_coverage_fraction", "wet_valid_precip_fraction",
+                  "air_coverage", "vd_coverage", "note"):
+        if extra in ds and comp_dim in ds[extra].dims:
+            frame[extra] = ds[extra].transpose("site", "receptor", "period", comp_dim).values.reshape(-1)
     frame["missing_components"] = (
         ds[missing_var].transpose("site", "receptor", "period", comp_dim).values.reshape(-1)
         if missing_var else "")
