@@ -100,7 +100,9 @@ class BudgetOptions:
         Share of covered hours with a modelled (not filled) Vd below which a component
         is "filled" rather than "complete" [1] (our default 0.9).
     min_slot_hours : int
-        See :data:`workbench.dryflux.MIN_SLOT_HOURS`.
+        Fewest valid hours of a (year, month, hour-of-day) slot for its own mean Vd to
+        fill a gap, else the all-years slot is used; 7, about a week of the month
+        (common practice).
     diurnal_profile : dict
         species -> 24 relative concentrations per UTC hour (sensitivity).
     preferred_method : dict

@@ -41,6 +41,9 @@ ATOMIC_WEIGHT = {
     "Mg": 24.305, "P": 30.974, "S": 32.06, "Cl": 35.45, "K": 39.098, "Ca": 40.078,
 }
 
+#: Molar mass of air used with Fuller's diffusion volume of air [g mol-1] (Fuller,
+#: Schettler and Giddings 1966; Poling et al. 2001, Table 11-1).
+FULLER_AIR_MOLAR_MASS = 28.96
 #: Atomic diffusion volumes of Fuller, Schettler and Giddings (1966), Table 1 [-].
 FULLER_VOLUME = {"C": 15.9, "H": 2.31, "O": 6.11, "N": 4.54, "S": 22.9, "air": 19.7}
 
@@ -85,8 +88,7 @@ def fuller_diffusivity(formula: str, temperature=ZERO_CELSIUS, pressure=STANDARD
     for element, count in re.findall(r"([A-Z][a-z]?)(\d*)", formula):
         volume += FULLER_VOLUME[element] * (int(count) if count else 1)
     m_a = formula_mass(formula) * 1000.0
-    m_air = 28.96  # [g mol-1] the value used with Fuller's air volume
-    m_ab = 2.0 / (1.0 / m_a + 1.0 / m_air)
+    m_ab = 2.0 / (1.0 / m_a + 1.0 / FULLER_AIR_MOLAR_MASS)
     p_bar = pressure / 1e5
     d_cm2 = 1.43e-3 * temperature ** 1.75 / (
         p_bar * m_ab ** 0.5 * (volume ** (1 / 3) + FULLER_VOLUME["air"] ** (1 / 3)) ** 2)

@@ -116,12 +116,14 @@ class DryOptions:
     ra_cap : float
         Largest aerodynamic resistance (common practice). [s m-1]
     ra_min_height_z0 : float
-        Ra is evaluated at least d + this many z0 above ground. [-]
+        Ra is evaluated at least d + this many z0 above ground (common practice: the
+        log profile holds only well above the roughness elements). [-]
     blending_height : float
         Height where the wind no longer feels the local surface (Wieringa 1986). [m]
     night_cloud_cover : float
         Cloud cover used at night when the met file has none and it cannot be
-        inferred from radiation (every such hour is flagged). [1]
+        inferred from radiation (every such hour is flagged); a mid-range value, our
+        default (common practice). [1]
     roughness : dict
         ``{land_use: (z0, d)}`` replacing the roughness rule for a whole class
         (either entry may be None). [m]

@@ -119,8 +119,8 @@ class WetOptions:
     #: how a sample that straddles a period boundary is shared: "hours" (share of its
     #: hours) or "met" (share of its hourly precipitation, falling back to hours).
     straddle: str = "hours"
-    #: fraction of the period with a valid gauge record [1]; 90 % (NADP-style
-    #: criterion, from memory).
+    #: fraction of the period with a valid gauge record [1]; 90 % (common practice of
+    #: monitoring networks, from memory).
     min_gauge_fraction: float = 0.90
     #: fraction of the period covered by valid or dry samples [1]; 90 % (WMO GAW
     #: Report No. 160 "%PCL", from memory).
