@@ -60,6 +60,27 @@ def render_report(result, study, scenario=None) -> str:
                  "eq/ha and every component are in budget.csv.</p>")
     per = totals[totals["period"] != "span"]
     parts.append(_pivot_html(per))
+    parts.append("<h2>Dry nitrogen: the gas/particle bracket [kg N/ha per period]</h2>")
+    parts.append("<p>Ammonium nitrate on filters shifts mass between HNO3 and pNO3 and between "
+                 "NH3 and pNH4; HNO3 deposits far faster than pNO3. The bracket puts each pair "
+                 "all in the gas and all in the particle phase.</p>")
+    dv = result.derived
+    if "dry_N_all_gas_kg_ha" in dv:
+        dry_n = per[(per["element"] == "N")]
+        frame = dv[["dry_N_all_gas_kg_ha", "dry_N_all_particle_kg_ha"]].to_dataframe().reset_index()
+        meas = t[(t["element"] == "N") & (t["pathway"] == "dry") & (t["species"] == "all")
+                 & (t["period"] != "span")][["site", "receptor", "period", "flux_kg_ha"]]
+        frame = frame.merge(meas.rename(columns={"flux_kg_ha": "dry_N_as_measured_kg_ha"}),
+                            on=["site", "receptor", "period"], how="inner")
+        parts.append(_table_html(frame[["site", "receptor", "period", "dry_N_as_measured_kg_ha",
+                                        "dry_N_all_gas_kg_ha", "dry_N_all_particle_kg_ha"]]))
+    notes_col = t["note"].dropna() if "note" in t else pd.Series(dtype=str)
+    notes_col = notes_col[notes_col != ""]
+    if len(notes_col):
+        parts.append("<h2>Notes on components</h2><ul>")
+        for (site, sp, note), _ in t.loc[notes_col.index].groupby(["site", "species", "note"]):
+            parts.append(f"<li>{html.escape(site)} {html.escape(sp)}: {html.escape(note)}</li>")
+        parts.append("</ul>")
     parts.append("<h2>Figures</h2>")
     first = True
     ds = result.years
@@ -95,7 +116,8 @@ def render_report(result, study, scenario=None) -> str:
     parts.append("</ul>")
     if result.notes:
         parts.append("<h2>Notes</h2><ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in result.notes) + "</ul>")
-    opts = {k: (v.to_dict() if hasattr(v, "to_dict") else repr(v)) for k, v in result.options.items()}
+    from .scenario import _plain
+    opts = {k: _plain(v) for k, v in result.options.items()}
     parts.append("<h2>Options in force</h2><pre>" + html.escape(json.dumps(opts, indent=1, default=str)) + "</pre>")
     body = "\n".join(parts)
     title = "Deposition budget report"
