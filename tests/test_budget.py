@@ -92,7 +92,7 @@ sulfate_basis = "total"
 
 def _get(table, element, pathway, species, period="2021-02"):
     r = table[(table["element"] == element) & (table["pathway"] == pathway)
-              & (table["species"] == species) & (table["period"] == period)]
+              & (table["species"] == species) & (table["period"].astype(str) == str(period))]
     assert len(r) == 1, r
     return r.iloc[0]
 
@@ -241,3 +241,41 @@ def test_span_mean_of_passing_years():
     assert tot["flux_kg_ha_yr"] == pytest.approx(12.0)
     assert tot["years_used"] == "2019 2021" and tot["years_excluded"] == "2020"
     assert tot["status"] == "partial"
+
+
+def test_year_needs_every_season(tmp_path):
+    """Weekly SO2 over 2021 except September-November: coverage passes 0.7 but a season
+    is missing, so the year is flagged; with require_all_seasons = false it is complete
+    (common practice: a year needs every season represented)."""
+    (tmp_path / "sites.toml").write_text(SITES)
+    weeks = pd.date_range("2021-01-01", "2022-01-01", freq="7D")
+    air = ["# reference_state: ambient", "site,start,end,SO2 [ug/m3]"]
+    for a, b in zip(weeks[:-1], weeks[1:]):
+        if not (9 <= a.month <= 11 or 9 <= b.month <= 11 and b.day > 1):
+            air.append(f"alpha,{a:%Y-%m-%dT%H:%M},{b:%Y-%m-%dT%H:%M},2.0")
+    (tmp_path / "air.csv").write_text("\n".join(air) + "\n")
+    t = pd.date_range("2021-01-01T01:00", "2022-01-01T00:00", freq="h")
+    pd.DataFrame({"site": "alpha", "time": t.strftime("%Y-%m-%dT%H:%M"), "wind_speed [m/s]": 3.0,
+                  "temperature [degC]": 10.0, "relative_humidity [%]": 80.0,
+                  "solar_radiation [W/m2]": 0.0, "precipitation [mm]": 0.0,
+                  "pressure [hPa]": 1012.0}).to_csv(tmp_path / "met.csv", index=False)
+    for require, expected in (("true", "flagged"), ("false", "complete")):
+        (tmp_path / "scenario.toml").write_text(f"""
+[inputs]
+sites = "sites.toml"
+air = "air.csv"
+met = "met.csv"
+[period]
+start = "2021-01-01"
+end = "2022-01-01"
+[budget]
+min_air_coverage = 0.7
+require_all_seasons = {require}
+[dry.fixed_velocity]
+SO2 = 0.5
+""")
+        written, _, _ = run_scenario(tmp_path / "scenario.toml", tmp_path / f"out_{require}", quiet=True)
+        row = _get(pd.read_csv(written["budget.csv"]), "S", "dry", "SO2", period="2021")
+        assert row["air_coverage"] == pytest.approx(row["completeness"])
+        assert 0.7 <= row["air_coverage"] < 0.8
+        assert row["status"] == expected

@@ -138,3 +138,16 @@ def test_demo_end_to_end(demo_run):
     html = (demo_run / "report.html").read_text()
     assert "model-based and uncertain" in html and "What the budget leaves out" in html
     assert '<script src="http' not in html and "<script src='http" not in html  # self-contained
+
+
+def test_writes_are_atomic_and_quiet(tiny, capsys):
+    """No temporary file is left behind, files get the usual mode, --quiet prints no bar."""
+    import os
+    out = tiny.parent / "run"
+    assert main(["run", str(tiny), "--out", str(out), "--quiet"]) == 0
+    assert capsys.readouterr().err == ""
+    names = [p.name for p in out.iterdir()]
+    assert not [n for n in names if n.endswith(".tmp") or n.startswith(".")]
+    umask = os.umask(0)
+    os.umask(umask)
+    assert all((p.stat().st_mode & 0o777) == (0o666 & ~umask) for p in out.iterdir())

@@ -137,3 +137,17 @@ def test_period_beyond_the_met_record_is_shared_by_real_hours():
     d = rows["deposition"].values[0, 0]
     # 2021 holds 6/7 of the sample, scaled to the year's 8760 h from 144 covered hours
     assert out["deposition"].values[0, 0, 1] == pytest.approx(d * 6 / 7 * 8760 / 144)
+
+
+def test_fill_diurnal_falls_back_to_all_years():
+    """A month of one year with no valid Vd takes the same (month, hour) of other years."""
+    t = pd.date_range("2020-01-01T01:00", "2022-01-01T00:00", freq="h")
+    hour = (t - pd.Timedelta("30min")).hour.to_numpy()
+    base = np.where(hour < 12, 0.001, 0.005)
+    vd = _vd(base, start="2020-01-01T01:00")
+    holed = vd.copy()
+    march_2021 = (t.year == 2021) & (t.month == 3)
+    holed[0, 0, march_2021] = np.nan
+    filled, was = fill_diurnal(holed)
+    assert int(was.sum()) == march_2021.sum()
+    np.testing.assert_allclose(filled[0, 0, march_2021], base[march_2021])

@@ -105,3 +105,27 @@ def test_load_inputs_describe(files):
     assert "alpha" in text and "rows per file" in text
     summ = inp.ledger.summary()
     assert (summ["read"] == summ[["accepted", "flagged", "rejected"]].sum(axis=1)).all()
+
+
+def test_met_time_label_start(files, write, met_text):
+    """'# time_label: start' labels the start of the hour: stored as its end (+1 h)."""
+    cat = read_sites(files["sites"])
+    p = write("met_start.csv", met_text().replace("# time_label: end", "# time_label: start"))
+    met, _ = read_met(p, cat)
+    assert str(met["time"].values[0])[:16] == "2020-01-07T01:00"
+
+
+def test_met_netcdf_round_trip(files, tmp_path):
+    """The NetCDF path (dims site, time, CF units attributes) gives the same Dataset."""
+    cat = read_sites(files["sites"])
+    met, _ = read_met(files["met"], cat)
+    nc = met.drop_vars("row_present").copy()
+    nc["temperature"] = nc["temperature"] - 273.15
+    nc["temperature"].attrs["units"] = "degC"
+    nc["relative_humidity"] = nc["relative_humidity"] * 100
+    nc["relative_humidity"].attrs["units"] = "%"
+    nc.to_netcdf(tmp_path / "met.nc", engine="scipy")
+    back, led = read_met(tmp_path / "met.nc", cat)
+    for v in ("temperature", "relative_humidity", "wind_speed", "pressure"):
+        np.testing.assert_allclose(back[v].values, met[v].values, rtol=1e-6)
+    assert led.check_balanced()

@@ -246,3 +246,27 @@ def test_saved_scenario_names_what_it_cannot_hold(session, tmp_path):
     assert back.options["dry"].seasonal_category == 4
     assert back.options["dry"].wetness_rule == "always_dry"
     assert back.data["period"]["start"] == "2021-01-01" and back.data["period"]["end"] == "2022-01-01"
+
+
+def test_cautions_progress_and_units(app):
+    """The app carries the report's caution (and the README's words); the progress bar
+    reports the last recomputation; mmol/m2/yr is N in mmol (arithmetic from kg)."""
+    import html as _html
+    from pathlib import Path
+    from workbench.report import CAUTION
+    readme = (Path(__file__).resolve().parents[2] / "README.md").read_text()
+    for phrase in ("model-based and uncertain", "methods your authority requires"):
+        assert phrase in CAUTION and phrase in readme
+    assert any(_html.escape(CAUTION) in getattr(w, "value", "") for w in _walk(app))
+    app.controls["budget.sulfate_basis"].value = "total"
+    assert app.progress.bar.value == pytest.approx(1.0)
+    kg = _y(app, "wet SO4")
+    app.unit_w.value = "mmol/m2/yr"
+    assert _y(app, "wet SO4") == pytest.approx(kg / (periodictable.S.mass * 1e-3 * 1e4) * 1e3, rel=1e-9)
+    app.unit_w.value = "kg/ha/yr"
+
+
+def _walk(w):
+    yield w
+    for c in getattr(w, "children", ()):
+        yield from _walk(c)
