@@ -7,7 +7,6 @@ expected, so that no traceback from deep inside pandas reaches a user.
 from __future__ import annotations
 
 import difflib
-from pathlib import Path
 
 
 class WorkbenchError(Exception):

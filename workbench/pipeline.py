@@ -26,8 +26,8 @@ import pandas as pd
 import xarray as xr
 
 from . import periods as _periods
-from .budget import (COMPONENTS, BudgetOptions, assemble, derived, dry_components, dry_rows,
-                     prepare_velocities)
+from .budget import COMPONENTS, BudgetOptions, assemble, derived
+from .drycomponents import dry_components, dry_rows, prepare_velocities
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
 from .tables import budget_table, span_table

@@ -66,7 +66,6 @@ def render_report(result, study, scenario=None) -> str:
                  "all in the gas and all in the particle phase.</p>")
     dv = result.derived
     if "dry_N_all_gas_kg_ha" in dv:
-        dry_n = per[(per["element"] == "N")]
         frame = dv[["dry_N_all_gas_kg_ha", "dry_N_all_particle_kg_ha"]].to_dataframe().reset_index()
         meas = t[(t["element"] == "N") & (t["pathway"] == "dry") & (t["species"] == "all")
                  & (t["period"] != "span")][["site", "receptor", "period", "flux_kg_ha"]]

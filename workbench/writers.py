@@ -13,7 +13,6 @@ import tempfile
 from pathlib import Path
 
 import numpy as np
-import pandas as pd
 import xarray as xr
 
 from . import __version__

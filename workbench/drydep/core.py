@@ -30,7 +30,6 @@ from .. import landuse
 from ..constants import CP_DRY_AIR, VON_KARMAN
 from ..landuse import LAND_USE
 from ..surface import energy_balance as eb
-from ..surface._array import where
 from ..surface.aerodynamic import (aerodynamic_resistance, apply_cap, apply_floor,
                                    reference_height, transfer_ustar)
 from ..surface.air import (air_density, kinematic_viscosity, specific_humidity_deficit,

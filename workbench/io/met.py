@@ -15,7 +15,7 @@ import xarray as xr
 from ..errors import InputError
 from ..units import convert_plain, parse_unit, ureg
 from . import metchecks
-from .common import check_sites, join_reasons, unit_error
+from .common import check_sites, unit_error
 from .ledger import Ledger
 from .table import RawTable
 
@@ -76,7 +76,6 @@ def read_met(path, catalogue):
         return _read_met_netcdf(path, catalogue)
     tab = RawTable.read(path)
     tab.require(["site", "time"] + [k for k, v in MET_VARIABLES.items() if v[1]])
-    n = len(tab.frame)
     sites = check_sites(tab, catalogue)
     off = catalogue.utc_offsets(sites)
     label = tab.meta.get("time_label", "end").lower()

@@ -6,7 +6,6 @@ Both return ``(dataset, ledger)``; see ``docs/data_formats.md`` for the files an
 from __future__ import annotations
 
 import re
-from pathlib import Path
 
 import numpy as np
 import pandas as pd

@@ -15,7 +15,7 @@ from plotly.subplots import make_subplots
 
 from .palette import (COMPONENT_COLOURS, ELEMENT_DASH, ENVELOPE_FILL, OKABE_ITO,
                       PATHWAY_COLOURS, SITE_CYCLE, STATUS_OPACITY, STATUS_PATTERN, TEMPLATE)
-from .summaries import UNITS, axis_text, component_rates, monthly_amounts, total_rates
+from .summaries import axis_text, component_rates, monthly_amounts, total_rates
 
 #: Order of the elements side by side.
 ELEMENTS = ("S", "N")

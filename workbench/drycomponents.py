@@ -1,0 +1,241 @@
+"""The dry components of a budget: Vd per species, deposition per sampling period, and
+its aggregation over reporting periods.
+
+:func:`prepare_velocities` turns the model's hourly Vd (or fixed what-if values) into
+gap-filled series; :func:`dry_rows` computes the deposition over every air-sampling
+period of every species (independent of the reporting periods, so it is computed once
+per option set); :func:`dry_components` shares it among reporting periods with the
+coverage and Vd completeness.  The numpy cores are in :mod:`workbench.dryflux`.
+Units: Vd [m s-1], concentrations [mol m-3] or [mol mol-1], deposition [mol m-2].
+"""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from .budget import COMPONENTS, PAIRS, BudgetError, BudgetOptions
+from .dryflux import _hour_bounds, _inputs_for, deposition_rows, fill_diurnal, period_mean, share_to_periods
+
+def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=7,
+                       template=None):
+    """Gap-filled hourly Vd per species, with the fill mask and its source.
+
+    Parameters
+    ----------
+    vd_ds : xarray.Dataset or None
+        Output of :func:`workbench.drydep.velocities` (``vd_<species>`` [m s-1]).
+    species_list : iterable of str
+    fixed_velocity : dict, optional
+        species -> Vd [cm s-1] replacing the model (what-if and arithmetic checks).
+    min_slot_hours : int
+    template : xarray.DataArray, optional
+        (site, receptor, time) array giving the axes for fixed velocities when the
+        model was not run.
+
+    Returns
+    -------
+    dict
+        species -> (filled Vd DataArray [m s-1], was_filled DataArray, source str).
+    """
+    fixed_velocity = fixed_velocity or {}
+    out = {}
+    for sp in species_list:
+        if sp in fixed_velocity:
+            base = vd_ds[f"vd_{sp}"] if vd_ds is not None and f"vd_{sp}" in vd_ds else template
+            if base is None:
+                raise BudgetError(f"fixed velocity for {sp} needs the hourly time axis of the met file")
+            vd = xr.full_like(base, fixed_velocity[sp] / 100.0, dtype=float)
+            vd.attrs = {"units": "m s-1", "long_name": f"fixed deposition velocity of {sp}"}
+            out[sp] = (vd, xr.zeros_like(vd, dtype=bool), f"fixed {fixed_velocity[sp]} cm/s")
+            continue
+        if vd_ds is None or f"vd_{sp}" not in vd_ds:
+            continue
+        filled, was = fill_diurnal(vd_ds[f"vd_{sp}"].load(), min_slot_hours)
+        out[sp] = (filled, was, vd_ds.attrs.get("gas_scheme", "model"))
+    return out
+
+
+def _nss_particles(air: xr.Dataset, basis: str) -> xr.Dataset:
+    """Replace pSO4 by its non-sea-salt part where pNa is measured (Keene et al. 1986)."""
+    if basis != "nss" or "pSO4" not in air or "pNa" not in air:
+        return air
+    from .wet.seasalt import non_seasalt
+    air = air.copy()
+    na = air["pNa"].values
+    nss = non_seasalt(air["pSO4"].values, np.where(np.isfinite(na), na, 0.0), "SO4", "Na")
+    air["pSO4"] = air["pSO4"].copy(data=np.where(np.isfinite(air["pSO4"].values), nss, np.nan))
+    air["pSO4"].attrs["long_name"] = "particulate non-sea-salt sulfate (Keene et al. 1986)"
+    return air
+
+
+def _pair_air(air: xr.Dataset, pair: str, into: str) -> xr.Dataset:
+    """Air dataset with both members of a pair moved into one species (`into`)."""
+    gas, part = PAIRS[pair]
+    air = air.copy()
+    g = air[gas].values if gas in air else np.full(air.sizes["period"], np.nan)
+    p = air[part].values if part in air else np.full(air.sizes["period"], np.nan)
+    total = np.where(np.isfinite(g) & np.isfinite(p), g + p, np.nan)
+    other = part if into == gas else gas
+    air[into] = (("period",), total, dict(air[into].attrs if into in air else air[other].attrs))
+    air[f"{into}_censored"] = (("period",), np.zeros(air.sizes["period"], bool))
+    air[f"{into}_detection_limit"] = (("period",), np.full(air.sizes["period"], np.nan))
+    if f"{other}_method" in air and f"{into}_method" not in air:
+        air[f"{into}_method"] = air[f"{other}_method"]
+    if other in air:
+        air[other] = air[other] * 0.0
+    return air
+
+
+def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None):
+    """Deposition over every air-sampling period of every species (period-independent).
+
+    Parameters
+    ----------
+    air : xarray.Dataset
+    vel : dict
+        Output of :func:`prepare_velocities`.
+    met : xarray.Dataset or None
+    sites : list of str
+    options : BudgetOptions
+    memo : dict, optional
+        Reused between calls with the same air preparation (sulfate basis, pair split,
+        censoring, profile, method): keyed by species and the identity of its Vd, so a
+        change of one species' velocity recomputes that species only.
+
+    Returns
+    -------
+    dict
+        ``"species"``: species -> numpy results of
+        :func:`workbench.dryflux.deposition_rows` plus ``site_index``; ``"vd_cum"``:
+        species -> cumulative counts of modelled and filled Vd hours; ``"bracket"``:
+        (pair, how) -> the rows with the pair moved into one member; ``"notes"``,
+        ``"measured"`` (site x species bool), ``"receptors"``, ``"times"``, ``"sites"``.
+    """
+    memo = {} if memo is None else memo
+    fopt = options.flux_options()
+    species_list = [c[2] for c in COMPONENTS if c[1] == "dry"]
+    any_vd = next(iter(vel.values()))[0]
+    times = any_vd["time"].values
+    sites = list(sites)
+    if "air" not in memo:
+        prepared = _nss_particles(air, options.sulfate_basis)
+        if options.pair_split != "measured":
+            for pair, (gas, part) in PAIRS.items():
+                if gas in prepared and part in prepared:
+                    prepared = _pair_air(prepared, pair,
+                                         gas if options.pair_split == "all_gas" else part)
+        memo["air"] = prepared
+    air = memo["air"]
+
+    def arrays(sp):
+        key = ("arrays", sp, id(vel[sp]))
+        if key not in memo:
+            vd, was, _ = vel[sp]
+            vd = vd.reindex(site=sites).transpose("site", "receptor", "time")
+            was_np = was.reindex(site=sites, fill_value=False).transpose(
+                "site", "receptor", "time").values
+            valid_raw = np.isfinite(vd.values) & ~was_np
+            memo[key] = (vd, vd.values, _cum(valid_raw), _cum(was_np), vel[sp])
+        return memo[key]
+
+    def one(air_in, sp, vd_sp, key):
+        key = key + (id(vel[vd_sp]),)
+        if key not in memo:
+            vd, v_np = arrays(vd_sp)[:2]
+            rows, site_of, conc, _, quantity, weight, n_air, notes = _inputs_for(
+                air_in, sp, vd, met, fopt)
+            si = pd.Index(sites).get_indexer(site_of)
+            r = deposition_rows(conc[rows], quantity, si, air_in["start"].values[rows],
+                                air_in["end"].values[rows], times, v_np, n_air, weight)
+            r["site_index"] = si
+            r["conc"] = conc[rows]
+            r["quantity"] = quantity
+            memo[key] = (r, notes)
+        return memo[key]
+
+    out = {"species": {}, "bracket": {}, "notes": [], "times": times,
+           "receptors": any_vd["receptor"].values, "sites": sites, "vd_cum": {}}
+    for sp in species_list:
+        if sp not in air or sp not in vel:
+            continue
+        r, notes = one(air, sp, sp, ("rows", sp))
+        out["species"][sp] = r
+        out["vd_cum"][sp] = arrays(sp)[2:4]
+        out["notes"].extend(notes)
+    for pair, (gas, part) in PAIRS.items():
+        if gas in air and part in air and gas in vel and part in vel:
+            for how, into in (("all_gas", gas), ("all_particle", part)):
+                bkey = ("bracket", pair, how, id(vel[gas]), id(vel[part]))
+                if bkey not in memo:
+                    memo[bkey] = one(_pair_air(air, pair, into), into, into, bkey)[0]
+                out["bracket"][(pair, how)] = memo[bkey]
+    out["measured"] = np.stack(
+        [np.isin(sites, np.unique(air["site"].values[np.isfinite(air[sp].values)]))
+         if sp in air else np.zeros(len(sites), bool) for sp in species_list], -1)
+    return out
+
+
+def _cum(x):
+    z = np.zeros(x.shape[:-1] + (1,))
+    return np.concatenate([z, np.cumsum(x, axis=-1, dtype=float)], axis=-1)
+
+
+def dry_components(rows: dict, periods: pd.DataFrame):
+    """Dry deposition of every measured species over the reporting periods.
+
+    Parameters
+    ----------
+    rows : dict
+        Output of :func:`dry_rows`.
+    periods : pandas.DataFrame
+
+    Returns
+    -------
+    xarray.Dataset
+        Dims (site, receptor, period, species): ``deposition`` [mol m-2] scaled to the
+        whole period, ``coverage`` [1] (site, period, species), ``vd_coverage`` and
+        ``vd_filled_share`` [1], ``measured`` (site, species), and the pair brackets.
+    """
+    species_list = [c[2] for c in COMPONENTS if c[1] == "dry"]
+    sites, receptors, times = rows["sites"], rows["receptors"], rows["times"]
+    n_s, n_r, n_p, n_k = len(sites), len(receptors), len(periods), len(species_list)
+    dep = np.full((n_s, n_r, n_p, n_k), np.nan)
+    cov = np.zeros((n_s, n_p, n_k))
+    vd_cov = np.full((n_s, n_r, n_p, n_k), np.nan)
+    filled_share = np.full((n_s, n_r, n_p, n_k), np.nan)
+    conc = np.full((n_s, n_p, n_k), np.nan)
+    pa, pb = _hour_bounds(times, periods["start"].values, periods["end"].values)
+    hours_p = periods["hours"].to_numpy(dtype=float)
+
+    def agg(r):
+        return share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"], r["cs"],
+                                n_s, periods, times, r["start"], r["end"])
+
+    for k, sp in enumerate(species_list):
+        if sp not in rows["species"]:
+            continue
+        r = rows["species"][sp]
+        d, c, _ = agg(r)
+        dep[..., k], cov[..., k] = d, c
+        if r.get("quantity") == "amount_density":
+            conc[..., k] = period_mean(r["site_index"], r["start"], r["end"], r["conc"], n_s, periods)
+        c_valid, c_fill = rows["vd_cum"][sp]
+        vd_cov[..., k] = (c_valid[:, :, pb] - c_valid[:, :, pa]) / hours_p
+        filled_share[..., k] = (c_fill[:, :, pb] - c_fill[:, :, pa]) / np.maximum(pb - pa, 1)
+    ds = xr.Dataset(
+        {"deposition": (("site", "receptor", "period", "species"), dep, {"units": "mol m-2"}),
+         "coverage": (("site", "period", "species"), cov, {"units": "1"}),
+         "vd_coverage": (("site", "receptor", "period", "species"), vd_cov, {"units": "1"}),
+         "vd_filled_share": (("site", "receptor", "period", "species"), filled_share, {"units": "1"}),
+         "measured": (("site", "species"), rows["measured"]),
+         "concentration": (("site", "period", "species"), conc,
+                           {"units": "mol m-3", "long_name": "time-weighted mean concentration "
+                            "over the covered hours (amount of species; ambient)"})},
+        coords={"site": sites, "receptor": receptors, "period": periods["label"].values,
+                "species": species_list})
+    for (pair, how), r in rows["bracket"].items():
+        ds[f"bracket_{pair}_{how}"] = (("site", "receptor", "period"), agg(r)[0], {"units": "mol m-2"})
+    return ds
+
+
