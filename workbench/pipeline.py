@@ -18,6 +18,7 @@ So a change of a wet option never recomputes Vd.
 from __future__ import annotations
 
 import dataclasses
+import functools
 import json
 from dataclasses import dataclass, field
 
@@ -52,18 +53,31 @@ def _key(obj) -> str:
 
 @dataclass
 class Result:
-    """Everything one run produces."""
+    """Everything one run produces.
+
+    ``table`` (the budget.csv rows) and ``derived`` are built on first use, so that the
+    apps, which draw from the Datasets, do not pay for them on every change.
+    """
 
     budget: xr.Dataset            #: (site, receptor, period, component) at the resolution
     years: xr.Dataset             #: the same for calendar years
-    table: pd.DataFrame           #: budget.csv rows (resolution periods, then the span)
-    derived: xr.Dataset           #: shares, oxidized / reduced N, potential acidity
     screened: xr.Dataset | None   #: per-sample QA
     wet: xr.Dataset | None        #: wet chain at the resolution
     velocities: xr.Dataset | None  #: hourly Ra, Rb, Rc, Vd
     periods: pd.DataFrame
     options: dict = field(default_factory=dict)
     notes: list = field(default_factory=list)
+
+    @functools.cached_property
+    def table(self) -> pd.DataFrame:
+        """budget.csv rows: the resolution periods, then the whole span."""
+        span = span_table(budget_table(self.years))
+        return pd.concat([budget_table(self.budget), span], ignore_index=True)
+
+    @functools.cached_property
+    def derived(self) -> xr.Dataset:
+        """Shares, oxidized / reduced N, potential acidity, brackets, total nitrate."""
+        return derived(self.budget)
 
 
 class Study:
@@ -267,10 +281,7 @@ class Study:
         else:
             res_ds, wet_r, _ = one(periods, None)
         self.counts["budget"] += 1
-        table = budget_table(res_ds)
-        span = span_table(budget_table(year_ds))
-        table = pd.concat([table, span], ignore_index=True)
-        return Result(budget=res_ds, years=year_ds, table=table, derived=derived(res_ds),
+        return Result(budget=res_ds, years=year_ds,
                       screened=self.screened(wet_options), wet=wet_r,
                       velocities=self.velocities(dry_options, overrides)
                       if self._needs_model(fixed_velocity) else None, periods=periods,
