@@ -14,10 +14,6 @@ from pathlib import Path
 
 from .errors import ScenarioError, suggest
 
-try:  # Python >= 3.11
-    import tomllib
-except ModuleNotFoundError:  # pragma: no cover
-    import tomli as tomllib
 
 #: section -> key -> (types, default, description).  A default of None means "not set".
 #: The sections [wet], [dry] and [budget] are filled from the options dataclasses of
@@ -325,17 +321,9 @@ def load_scenario(path) -> Scenario:
     -------
     Scenario
     """
+    from .io.tomlfile import read_toml
     path = Path(path).resolve()
-    try:
-        text = path.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise ScenarioError("scenario file not found", file=path, expected="an existing TOML file") from None
-    try:
-        raw = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        m = re.search(r"line (\d+)", str(exc))
-        raise ScenarioError(f"invalid TOML ({exc})", file=path,
-                            line=int(m.group(1)) if m else None) from None
+    raw, text = read_toml(path, ScenarioError, "scenario file not found")
     return validate(raw, path, text)
 
 

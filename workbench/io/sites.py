@@ -15,10 +15,7 @@ import xarray as xr
 from ..errors import InputError, suggest
 from ..landuse import LAND_USE
 
-try:  # Python >= 3.11
-    import tomllib
-except ModuleNotFoundError:  # pragma: no cover
-    import tomli as tomllib
+from .tomlfile import read_toml
 
 #: key -> (type(s), required, description)
 SITE_KEYS = {
@@ -214,18 +211,9 @@ def read_sites(path) -> SiteCatalogue:
         an unknown land-use class or collector, or a duplicate id.
     """
     path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise InputError("file not found", file=path, expected="an existing sites.toml") from None
+    data, text = read_toml(path, expected="an existing sites.toml")
     if not text.strip():
         raise InputError("empty file", file=path, expected="[[site]] tables")
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        m = re.search(r"line (\d+)", str(exc))
-        raise InputError(f"invalid TOML ({exc})", file=path,
-                         line=int(m.group(1)) if m else None) from None
     lines = text.splitlines()
     starts = [i for i, ln in enumerate(lines) if re.match(r"^\s*\[\[\s*site\s*\]\]", ln)]
     extra = [k for k in data if k != "site"]
