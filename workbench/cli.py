@@ -71,11 +71,18 @@ def cmd_demo(args) -> int:
         print(f"error: the demo scenario is missing at {DEMO_SCENARIO}", file=sys.stderr)
         return 2
     import datetime as dt
+    import pandas as pd
     out = Path(args.out) if args.out else Path.cwd() / (
         "workbench-demo-" + dt.datetime.now().strftime("%Y%m%d-%H%M%S"))
     written, result, study = run_scenario(DEMO_SCENARIO, out, overwrite=False, quiet=args.quiet)
     print(study.inputs.describe())
     print()
+    if result.screened is not None:
+        st = pd.Series(result.screened["status"].values.astype(str)).value_counts()
+        print("precipitation QA: " + ", ".join(f"{int(st.get(k, 0))} {k}" for k in
+                                               ("used", "flagged", "excluded", "dry"))
+              + " (reasons per sample in samples.csv)")
+        print()
     t = result.table
     span = t[(t["period"] == "span") & (t["species"] == "all") & (t["pathway"] == "total")]
     if len(span):
