@@ -15,7 +15,7 @@ import pandas as pd
 import xarray as xr
 
 from .budget import COMPONENTS, PAIRS, BudgetError, BudgetOptions
-from .dryflux import _hour_bounds, _inputs_for, deposition_rows, fill_diurnal, period_mean, share_to_periods
+from .dryflux import _cumulative, _hour_bounds, _inputs_for, deposition_rows, fill_diurnal, period_mean, share_to_periods
 
 def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=7,
                        template=None):
@@ -136,7 +136,8 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None):
             was_np = was.reindex(site=sites, fill_value=False).transpose(
                 "site", "receptor", "time").values
             valid_raw = np.isfinite(vd.values) & ~was_np
-            memo[key] = (vd, vd.values, _cum(valid_raw), _cum(was_np), vel[sp])
+            memo[key] = (vd, vd.values, _cumulative(valid_raw.astype(float)),
+                         _cumulative(was_np.astype(float)), vel[sp])
         return memo[key]
 
     def one(air_in, sp, vd_sp, key):
@@ -174,11 +175,6 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None):
         [np.isin(sites, np.unique(air["site"].values[np.isfinite(air[sp].values)]))
          if sp in air else np.zeros(len(sites), bool) for sp in species_list], -1)
     return out
-
-
-def _cum(x):
-    z = np.zeros(x.shape[:-1] + (1,))
-    return np.concatenate([z, np.cumsum(x, axis=-1, dtype=float)], axis=-1)
 
 
 def dry_components(rows: dict, periods: pd.DataFrame):

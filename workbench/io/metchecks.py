@@ -205,16 +205,12 @@ def gauge_comparison(met, samples, low=0.5, high=2.0, min_depth_mm=2.0):
                         "gauge_depth": samples["gauge_depth"].values[have]})
     if out.empty:
         return out.assign(met_depth=[], met_hours_missing=[], ratio=[], suspicious=[])
-    pr = met["precipitation"].values
-    cs = np.concatenate([np.zeros((pr.shape[0], 1)), np.nancumsum(pr, axis=1)], axis=1)
-    cm = np.concatenate([np.zeros((pr.shape[0], 1)), np.cumsum(np.isnan(pr), axis=1)], axis=1)
-    times = met["time"].values
-    si = pd.Index(met["site"].values.astype(str)).get_indexer(out["site"])
-    a = np.searchsorted(times, out["start"].to_numpy(), side="right")
-    b = np.searchsorted(times, out["end"].to_numpy(), side="right")
-    hours = ((out["end"] - out["start"]) / np.timedelta64(1, "h")).to_numpy()
-    out["met_depth"] = cs[si, b] - cs[si, a]
-    out["met_hours_missing"] = (cm[si, b] - cm[si, a]) + (hours - (b - a))
+    from ..wet.hourly import site_positions, window_sums
+    total, n_valid, n_hours = window_sums(met["precipitation"],
+                                          site_positions(out["site"], met["site"].values),
+                                          out["start"].to_numpy(), out["end"].to_numpy())
+    out["met_depth"] = total
+    out["met_hours_missing"] = n_hours - n_valid
     with np.errstate(divide="ignore", invalid="ignore"):
         out["ratio"] = out["met_depth"] / out["gauge_depth"]
     judged = (out["met_hours_missing"] == 0) & (np.maximum(out["gauge_depth"], out["met_depth"]) >= min_depth_mm)

@@ -10,6 +10,7 @@ from ..constants import (CP_DRY_AIR, GAS_CONSTANT, LATENT_HEAT_VAPORIZATION, MAG
                          MAGNUS_B, MAGNUS_C, MOLAR_MASS_DRY_AIR, MOLAR_MASS_WATER,
                          STANDARD_PRESSURE, SUTHERLAND_MU_REF, SUTHERLAND_S,
                          SUTHERLAND_T_REF, ZERO_CELSIUS, GRAVITY)
+from ..units import molar_density_air
 
 #: Temperature lapse rate of the standard troposphere [K m-1] and its sea-level
 #: temperature [K]; ISO 2533 / ICAO standard atmosphere.
@@ -39,7 +40,7 @@ def air_density(temperature, pressure):
     >>> round(float(air_density(288.15, 101325.0)), 3)
     1.225
     """
-    return pressure * MOLAR_MASS_DRY_AIR / (GAS_CONSTANT * temperature)
+    return molar_density_air(temperature, pressure) * MOLAR_MASS_DRY_AIR
 
 
 def dynamic_viscosity(temperature):
