@@ -181,16 +181,21 @@ class SiteExplorer(widgets.VBox):
 
     # ------------------------------------------------------------------ figures
     def _figure(self, name, template=None):
-        """The figure of a tab; built without a template for updates (the widget keeps
-        the one it was created with, and building a template costs tens of ms)."""
+        """The figure of a tab: a plotly Figure with `template` (to create a widget), or
+        for updates (no template: the widget keeps the one it was created with) the
+        figure's plain JSON spec where the figure module has one (budget, monthly)."""
         t = {"template": template}
         r, site, rec, unit = self.result, self.site, self.receptor_w.value, self.unit_w.value
         off = self.session.utc_offset(site)
         if name == "budget":
+            if template is None:
+                return figures.budget_bars_spec(r.years, site, rec, None, unit)
             return figures.budget_bars(r.years, site, rec, None, unit, **t)
         if name == "monthly fluxes":
             if r.options.get("resolution") != "month":
                 self.result = r = self.session.run(self.settings, site, *self.years, "month")
+            if template is None:
+                return figures.monthly_fluxes_spec(r.budget, site, rec, unit)
             return figures.monthly_fluxes(r.budget, site, rec, unit, **t)
         if name == "deposition velocity":
             if r.velocities is None:

@@ -5,9 +5,11 @@ import html
 import time
 
 import ipywidgets as widgets
+import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 import traitlets
+from plotly.basedatatypes import Undefined
 
 from ..budget import OMISSIONS
 from ..report import CAUTION
@@ -129,33 +131,125 @@ class Progress(widgets.HBox):
         self.step(f"{text} ({time.perf_counter() - self.started:.2f} s)", 1.0)
 
 
-def refresh(widget: go.FigureWidget, fig: go.Figure):
-    """Copy a new figure into a displayed FigureWidget in one batched update.
+def _flatten(d: dict, prefix: str = "", out: dict | None = None) -> dict:
+    """Nested plotly JSON as ``{"marker.line.color": value}`` (lists are leaves)."""
+    out = {} if out is None else out
+    for k, v in d.items():
+        if isinstance(v, dict) and v:
+            _flatten(v, f"{prefix}{k}.", out)
+        else:
+            out[f"{prefix}{k}"] = v
+    return out
 
-    Traces are updated in place when the new figure has the same number and types of
-    traces (the usual case); otherwise they are replaced.
+
+def _equal(a, b) -> bool:
+    """Plain-JSON equality (numpy arrays compared by value)."""
+    if a is b:
+        return True
+    if isinstance(a, np.ndarray) or isinstance(b, np.ndarray):
+        try:
+            return np.array_equal(np.asarray(a), np.asarray(b))
+        except (TypeError, ValueError):
+            return False
+    try:
+        return bool(a == b)
+    except (TypeError, ValueError):
+        return False
+
+
+def _is_object_list(v) -> bool:
+    return isinstance(v, (list, tuple)) and any(isinstance(x, dict) for x in v)
+
+
+def _as_spec(fig) -> dict:
+    """A figure or spec as ``{"data": [dict], "layout": dict}`` without the template."""
+    if not isinstance(fig, dict):
+        # plotly's validated trace and layout dicts (its to_dict() encodes arrays as
+        # base64 strings, which are not values a restyle can take)
+        spec = {"data": list(fig._data), "layout": fig._layout}
+    else:
+        spec = fig
+    layout = {k: v for k, v in spec.get("layout", {}).items() if k not in STATIC_LAYOUT}
+    return {"data": [dict(t) for t in spec["data"]], "layout": layout}
+
+
+def _remember(widget, spec: dict):
+    widget._wb_shown = {"types": [t.get("type", "scatter") for t in spec["data"]],
+                        "traces": [_flatten(t) for t in spec["data"]],
+                        "layout": _flatten(spec["layout"])}
+
+
+def refresh(widget: go.FigureWidget, fig) -> dict:
+    """Copy a new figure into a displayed FigureWidget in one update message.
+
+    Parameters
+    ----------
+    widget : plotly.graph_objects.FigureWidget
+        Made by :func:`figure_widget` (it remembers what it shows).
+    fig : plotly Figure or dict
+        The new figure, or its plain JSON spec (``{"data": [...], "layout": {...}}``,
+        as the ``*_spec`` functions of :mod:`workbench.ui.figures` give).
+
+    Returns
+    -------
+    dict
+        ``{"restyled": n, "relayout": n, "replaced": bool}``: how many trace and layout
+        properties were sent.
+
+    Notes
+    -----
+    When the new figure has the same number and types of traces as the one shown
+    (the usual case), only the properties whose values changed are sent, in one
+    ``plotly_update`` (the message a batched update sends); the spec functions build
+    valid plotly JSON, and their figures are validated where they are built as plotly
+    objects (the ``budget_bars`` ... functions and their tests).  Otherwise the traces
+    are replaced through plotly's validated objects.
     """
-    same = len(widget.data) == len(fig.data) and all(
-        a.type == b.type for a, b in zip(widget.data, fig.data))
-    if not same:
+    spec = _as_spec(fig)
+    shown = getattr(widget, "_wb_shown", None)
+    types = [t.get("type", "scatter") for t in spec["data"]]
+    if shown is None or shown["types"] != types or len(widget.data) != len(types):
         with widget.batch_update():
             widget.data = ()
-        widget.add_traces(list(fig.data))
-    layout = fig.layout.to_plotly_json()
-    for k in STATIC_LAYOUT:
-        layout.pop(k, None)
-    with widget.batch_update():
-        if same:
-            for old, new in zip(widget.data, fig.data):
-                props = new.to_plotly_json()
-                props.pop("type", None)
-                old.update(props, overwrite=True)
-        widget.layout.update(layout, overwrite=True)
+        widget.add_traces(spec["data"])
+        with widget.batch_update():
+            widget.layout.update(spec["layout"], overwrite=True)
+        _remember(widget, spec)
+        return {"restyled": len(types), "relayout": len(spec["layout"]), "replaced": True}
+    n = len(types)
+    restyle: dict = {}
+    new_traces = [_flatten(t) for t in spec["data"]]
+    for i, (old, new) in enumerate(zip(shown["traces"], new_traces)):
+        for k in new.keys() | old.keys():
+            v = new.get(k)
+            if k in old and k in new and _equal(old[k], v):
+                continue
+            restyle.setdefault(k, [Undefined] * n)[i] = v
+    new_layout = _flatten(spec["layout"])
+    relayout = {k: new_layout.get(k) for k in new_layout.keys() | shown["layout"].keys()
+                if not (k in new_layout and k in shown["layout"]
+                        and _equal(shown["layout"][k], new_layout[k]))}
+    # lists of objects (shapes, annotations) go through plotly's validated layout, which
+    # keeps its objects for them in step with the data
+    compound = {k: relayout.pop(k) or [] for k in list(relayout)
+                if _is_object_list(relayout[k]) or _is_object_list(shown["layout"].get(k))}
+    if compound:
+        with widget.batch_update():
+            widget.layout.update(compound, overwrite=True)
+    if restyle or relayout:
+        widget.plotly_update(restyle_data=restyle, relayout_data=relayout,
+                             trace_indexes=list(range(n)))
+    shown.update(traces=new_traces, layout=new_layout)
+    return {"restyled": sum(sum(v is not Undefined for v in vals) for vals in restyle.values()),
+            "relayout": len(relayout) + len(compound), "replaced": False}
 
 
-def figure_widget(fig: go.Figure) -> go.FigureWidget:
-    """A FigureWidget built from a figure (layout given at construction)."""
-    return go.FigureWidget(fig)
+def figure_widget(fig) -> go.FigureWidget:
+    """A FigureWidget built from a figure (layout given at construction); it remembers
+    what it shows so that :func:`refresh` sends only changes."""
+    w = go.FigureWidget(fig)
+    _remember(w, _as_spec(fig))
+    return w
 
 
 def table_html(frame: pd.DataFrame, empty="none") -> str:

@@ -8,6 +8,9 @@ chemistry QA in :mod:`workbench.ui.figures_wet`.
 """
 from __future__ import annotations
 
+import functools
+import json
+
 import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
@@ -46,6 +49,78 @@ def _hover_value(value, status, completeness, axis):
     return f"{value:.3g} {axis}<br>status {status}, completeness {comp}"
 
 
+def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
+    """The budget bars of :func:`budget_bars` as plain plotly JSON (no template).
+
+    ``{"data": [trace dicts], "layout": dict}``: an app copies it into a displayed
+    ``FigureWidget`` with :func:`workbench.ui.controls.refresh`, which sends only what
+    changed (building and validating plotly objects costs tens of milliseconds).
+    """
+    comp = component_rates(ds, site, receptor, period, unit)
+    tot = total_rates(ds, site, receptor, period, unit)
+    periods = list(pd.unique(comp["period"]))
+    traces = []
+    titled = set()
+    for (el, pw, sp), g in comp.groupby(["element", "pathway", "species"], sort=False):
+        name = f"{pw} {sp}"
+        axis = axis_text(unit, element=el)
+        st = g["status"].to_numpy()
+        vals = g["value"].to_numpy()
+        trace = {
+            "type": "bar", "x": [[el] * len(g), g["period"].tolist()],
+            "y": [float(v) if np.isfinite(v) else None for v in vals],
+            "name": name, "legendgroup": el,
+            "marker": {"color": COMPONENT_COLOURS[f"{pw}/{sp}"],
+                       "opacity": [STATUS_OPACITY.get(x, 1.0) for x in st],
+                       "pattern": {"shape": [STATUS_PATTERN.get(x, "") for x in st]},
+                       "line": {"color": OKABE_ITO["black"], "width": 0.5}},
+            "customdata": [_hover_value(v, x, c, axis) for v, x, c in
+                           zip(vals, st, g["completeness"].to_numpy())],
+            "hovertemplate": f"{el} {name} %{{x[1]}}: %{{customdata}}<extra></extra>"}
+        if el not in titled:
+            trace["legendgrouptitle"] = {"text": ELEMENT_NAMES[el]}
+        titled.add(el)
+        traces.append(trace)
+    t = tot[tot["pathway"] == "total"]
+    rows = {(e, p): i for i, (e, p) in enumerate(zip(t["element"], t["period"]))}
+    value, status, missing = t["value"].to_numpy(), t["status"].to_numpy(), t["missing"].to_numpy()
+    xs_el, xs_p, ys, text, sym = [], [], [], [], []
+    for el in ELEMENTS:
+        for p in periods:
+            i = rows[(el, p)]
+            v, stt = float(value[i]), str(status[i])
+            xs_el.append(el)
+            xs_p.append(p)
+            ys.append(v if np.isfinite(v) else None)
+            miss = f"<br>no data for {missing[i]}" if missing[i] else ""
+            text.append(f"{el} total {p}: {v:.3g} {axis_text(unit, element=el)}"
+                        f"<br>status {stt}{miss}")
+            sym.append(TOTAL_SYMBOL[stt in ("complete", "filled")])
+    traces.append({
+        "type": "scatter", "x": [xs_el, xs_p], "y": ys, "mode": "markers", "name": "total",
+        "legendgroup": "total",
+        "marker": {"symbol": sym, "size": 11, "color": OKABE_ITO["black"],
+                   "line": {"color": OKABE_ITO["black"], "width": 1.5}},
+        "customdata": text, "hovertemplate": "%{customdata}<extra></extra>"})
+    layout = {"barmode": "stack", "title": {"text": f"Budget · {site} · {receptor}"},
+              "yaxis": {"title": {"text": axis_text(unit)}},
+              "xaxis": {"title": {"text": "element and period"}},
+              "legend": {"title": {"text": "pathway and species"}, "groupclick": "toggleitem"},
+              "height": HEIGHT}
+    return {"data": traces, "layout": layout}
+
+
+def _figure(spec: dict, template=TEMPLATE, fig=None) -> go.Figure:
+    """A plotly Figure (validated) from a spec, with the template."""
+    if fig is None:
+        fig = go.Figure(data=spec["data"], layout=spec["layout"])
+    else:
+        fig.add_traces(spec["data"])
+        fig.update_layout(spec["layout"])
+    fig.update_layout(template=template)
+    return fig
+
+
 def budget_bars(ds, site, receptor, period=None, unit="kg/ha/yr", fig=None, template=TEMPLATE):
     """Stacked bars of the wet and dry parts by species, S and N side by side.
 
@@ -73,52 +148,49 @@ def budget_bars(ds, site, receptor, period=None, unit="kg/ha/yr", fig=None, temp
         Ten bar traces (one per component, in the budget's order) and one scatter
         trace of the totals.
     """
-    comp = component_rates(ds, site, receptor, period, unit)
-    tot = total_rates(ds, site, receptor, period, unit)
-    fig = fig if fig is not None else go.Figure()
+    return _figure(budget_bars_spec(ds, site, receptor, period, unit), template, fig)
+
+
+@functools.lru_cache(maxsize=None)
+def _two_rows_layout() -> tuple:
+    """Layout JSON of two rows sharing the x axis (from plotly's make_subplots, once)
+    and the axis names of each row."""
+    fig = make_subplots(rows=2, cols=1, shared_xaxes=True, vertical_spacing=0.08,
+                        subplot_titles=("sulfur", "nitrogen"))
+    axes = []
+    for row in (1, 2):
+        sub = fig.get_subplot(row, 1)
+        axes.append((sub.xaxis.plotly_name, sub.yaxis.plotly_name))
+    return json.dumps(fig.layout.to_plotly_json()), tuple(axes)
+
+
+def monthly_fluxes_spec(ds_month, site, receptor, unit="kg/ha/yr") -> dict:
+    """The figure of :func:`monthly_fluxes` as plain plotly JSON (no template)."""
+    t = monthly_amounts(ds_month, site, receptor, unit)
+    base, axes = _two_rows_layout()
+    layout = json.loads(base)
     traces = []
-    titled = set()
-    for (el, pw, sp), g in comp.groupby(["element", "pathway", "species"], sort=False):
-        name = f"{pw} {sp}"
-        axis = axis_text(unit, element=el)
-        st = g["status"].to_numpy()
-        title = dict(text=ELEMENT_NAMES[el]) if el not in titled else None
-        titled.add(el)
-        traces.append(go.Bar(
-            x=[[el] * len(g), g["period"].tolist()],
-            y=[v if np.isfinite(v) else None for v in g["value"]],
-            name=name, legendgroup=el, legendgrouptitle=title,
-            marker=dict(color=COMPONENT_COLOURS[f"{pw}/{sp}"],
-                        opacity=[STATUS_OPACITY.get(s, 1.0) for s in st],
-                        pattern=dict(shape=[STATUS_PATTERN.get(s, "") for s in st]),
-                        line=dict(color=OKABE_ITO["black"], width=0.5)),
-            customdata=[_hover_value(v, s, c, axis) for v, s, c in
-                        zip(g["value"], st, g["completeness"])],
-            hovertemplate=f"{el} {name} %{{x[1]}}: %{{customdata}}<extra></extra>"))
-    t = tot[tot["pathway"] == "total"].set_index(["element", "period"])
-    xs_el, xs_p, ys, text, sym = [], [], [], [], []
-    for el in ELEMENTS:
-        for p in pd.unique(comp["period"]):
-            r = t.loc[(el, p)]
-            ok = r["status"] in ("complete", "filled")
-            xs_el.append(el)
-            xs_p.append(p)
-            ys.append(float(r["value"]) if np.isfinite(r["value"]) else None)
-            miss = f"<br>no data for {r['missing']}" if r["missing"] else ""
-            text.append(f"{el} total {p}: {r['value']:.3g} {axis_text(unit, element=el)}"
-                        f"<br>status {r['status']}{miss}")
-            sym.append(TOTAL_SYMBOL[bool(ok)])
-    traces.append(go.Scatter(
-        x=[xs_el, xs_p], y=ys, mode="markers", name="total", legendgroup="total",
-        marker=dict(symbol=sym, size=11, color=OKABE_ITO["black"],
-                    line=dict(color=OKABE_ITO["black"], width=1.5)),
-        customdata=text, hovertemplate="%{customdata}<extra></extra>"))
-    fig.add_traces(traces)
-    fig.update_layout(barmode="stack", title=f"Budget · {site} · {receptor}",
-                      yaxis_title=axis_text(unit), xaxis_title="element and period",
-                      legend=dict(title="pathway and species", groupclick="toggleitem"),
-                      template=template, height=HEIGHT)
-    return fig
+    for (xname, yname), el in zip(axes, ELEMENTS):
+        for pw in ("wet", "dry"):
+            g = t[(t["element"] == el) & (t["pathway"] == pw)]
+            st = g["status"].to_numpy()
+            traces.append({
+                "type": "scatter", "x": g["start"].dt.strftime("%Y-%m-%d").tolist(),
+                "y": [float(v) if np.isfinite(v) else None for v in g["value"].to_numpy()],
+                "mode": "lines+markers", "name": f"{el} {pw}", "legendgroup": pw,
+                "line": {"color": PATHWAY_COLOURS[pw], "dash": ELEMENT_DASH[el]},
+                "marker": {"symbol": ["circle" if x == "complete" else "circle-open" for x in st],
+                           "size": 6, "color": PATHWAY_COLOURS[pw]},
+                "customdata": st.tolist(),
+                "hovertemplate": (f"{el} {pw} %{{x|%Y-%m}}: %{{y:.3g}} "
+                                  f"{axis_text(unit, True, el)}<br>status "
+                                  "%{customdata}<extra></extra>"),
+                "xaxis": xname.replace("axis", ""), "yaxis": yname.replace("axis", "")})
+        layout[yname].update({"title": {"text": axis_text(unit, True, el)}, "rangemode": "tozero"})
+    layout[axes[1][0]]["title"] = {"text": "month (UTC)"}
+    layout.update({"title": {"text": f"Monthly deposition · {site} · {receptor}"},
+                   "height": HEIGHT + 100, "legend": {"title": {"text": "element and pathway"}}})
+    return {"data": traces, "layout": layout}
 
 
 def monthly_fluxes(ds_month, site, receptor, unit="kg/ha/yr", template=TEMPLATE):
@@ -130,33 +202,16 @@ def monthly_fluxes(ds_month, site, receptor, unit="kg/ha/yr", template=TEMPLATE)
     ----------
     ds_month : xarray.Dataset
         A budget at monthly resolution (``Result.budget`` of a ``"month"`` run).
+    site, receptor : str
+    unit : str
+        A key of :data:`workbench.ui.summaries.UNITS` (amounts per month).
 
     Returns
     -------
     plotly.graph_objects.Figure
         Four traces: S wet, S dry, N wet, N dry.
     """
-    t = monthly_amounts(ds_month, site, receptor, unit)
-    fig = make_subplots(rows=2, cols=1, shared_xaxes=True, vertical_spacing=0.08,
-                        subplot_titles=("sulfur", "nitrogen"))
-    for row, el in enumerate(ELEMENTS, start=1):
-        for pw in ("wet", "dry"):
-            g = t[(t["element"] == el) & (t["pathway"] == pw)]
-            st = g["status"].to_numpy()
-            fig.add_trace(go.Scatter(
-                x=g["start"], y=[v if np.isfinite(v) else None for v in g["value"]],
-                mode="lines+markers", name=f"{el} {pw}", legendgroup=pw,
-                line=dict(color=PATHWAY_COLOURS[pw], dash=ELEMENT_DASH[el]),
-                marker=dict(symbol=["circle" if s == "complete" else "circle-open" for s in st],
-                            size=6, color=PATHWAY_COLOURS[pw]),
-                customdata=st, hovertemplate=(f"{el} {pw} %{{x|%Y-%m}}: %{{y:.3g}} "
-                                              f"{axis_text(unit, True, el)}<br>status "
-                                              "%{customdata}<extra></extra>")), row=row, col=1)
-        fig.update_yaxes(title_text=axis_text(unit, True, el), row=row, col=1, rangemode="tozero")
-    fig.update_xaxes(title_text="month (UTC)", row=2, col=1)
-    fig.update_layout(title=f"Monthly deposition · {site} · {receptor}", template=template,
-                      height=HEIGHT + 100, legend_title="element and pathway")
-    return fig
+    return _figure(monthly_fluxes_spec(ds_month, site, receptor, unit), template)
 
 
 def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr", template=TEMPLATE):

@@ -51,6 +51,30 @@ def _as_list(periods, ds):
     return [str(p) for p in periods]
 
 
+def _picker(ds: xr.Dataset, site, receptor, labels=None):
+    """Plain-numpy selection of one site and receptor (and some periods) of a budget.
+
+    ``ds.sel`` costs about a millisecond a call; the figures of an app read a dozen
+    variables on every change, so they index the arrays directly.  Returns a function
+    ``pick(name)`` giving the variable's values with the site and receptor dimensions
+    removed and the period dimension first (in the order of `labels`).
+    """
+    i_site = ds.indexes["site"].get_loc(site)
+    i_rec = ds.indexes["receptor"].get_loc(receptor)
+    i_per = None if labels is None else ds.indexes["period"].get_indexer(labels)
+    if i_per is not None and (i_per < 0).any():
+        missing = [lab for lab, i in zip(labels, i_per) if i < 0]
+        raise KeyError(f"periods not in the budget: {missing}")
+
+    def pick(name):
+        v = ds.variables[name]
+        idx = tuple(i_site if d == "site" else i_rec if d == "receptor" else
+                    (slice(None) if i_per is None else i_per) if d == "period" else slice(None)
+                    for d in v.dims)
+        return np.asarray(v.values[idx])
+    return pick
+
+
 def component_rates(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -> pd.DataFrame:
     """Yearly rate of each budget component of one site and receptor.
 
@@ -71,19 +95,19 @@ def component_rates(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr
         ``completeness`` [1]; NaN value where the component is missing.
     """
     labels = _as_list(periods, ds)
-    sel = ds.sel(site=site, receptor=receptor, period=labels)
-    dep = sel["deposition"].transpose("period", "component").values
-    el = sel["element"].values.astype(str)
-    fac = sel["annual_factor"].values[:, None]
+    pick = _picker(ds, site, receptor, labels)
+    dep = pick("deposition")                                     # (period, component)
+    el = pick("element").astype(str)
+    fac = pick("annual_factor")[:, None]
     value = np.where(el == "S", to_unit(dep, "S", unit), to_unit(dep, "N", unit)) * fac
     n_p, n_c = dep.shape
     return pd.DataFrame({
         "period": np.repeat(labels, n_c), "element": np.tile(el, n_p),
-        "pathway": np.tile(sel["pathway"].values.astype(str), n_p),
-        "species": np.tile(sel["species"].values.astype(str), n_p),
+        "pathway": np.tile(pick("pathway").astype(str), n_p),
+        "species": np.tile(pick("species").astype(str), n_p),
         "value": value.reshape(-1),
-        "status": sel["status"].transpose("period", "component").values.reshape(-1).astype(str),
-        "completeness": sel["completeness"].transpose("period", "component").values.reshape(-1)})
+        "status": pick("status").reshape(-1).astype(str),
+        "completeness": pick("completeness").reshape(-1)})
 
 
 def total_rates(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -> pd.DataFrame:
@@ -96,20 +120,19 @@ def total_rates(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -
         ``missing`` (components without data, space-separated).
     """
     labels = _as_list(periods, ds)
-    sel = ds.sel(site=site, receptor=receptor, period=labels)
-    names = sel["total"].values.astype(str)
+    pick = _picker(ds, site, receptor, labels)
+    names = pick("total").astype(str)
     el = np.array([n.split("_")[0] for n in names])
-    dep = sel["total_deposition"].transpose("period", "total").values
-    fac = sel["annual_factor"].values[:, None]
+    dep = pick("total_deposition")                               # (period, total)
+    fac = pick("annual_factor")[:, None]
     value = np.where(el == "S", to_unit(dep, "S", unit), to_unit(dep, "N", unit)) * fac
     n_p, n_t = dep.shape
     return pd.DataFrame({
         "period": np.repeat(labels, n_t), "total": np.tile(names, n_p),
         "element": np.tile(el, n_p), "pathway": np.tile([n.split("_")[1] for n in names], n_p),
         "value": value.reshape(-1),
-        "status": sel["total_status"].transpose("period", "total").values.reshape(-1).astype(str),
-        "missing": sel["total_missing_components"].transpose("period", "total").values
-        .reshape(-1).astype(str)})
+        "status": pick("total_status").reshape(-1).astype(str),
+        "missing": pick("total_missing_components").reshape(-1).astype(str)})
 
 
 def mean_totals(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -> pd.DataFrame:
@@ -146,17 +169,18 @@ def monthly_amounts(ds_month: xr.Dataset, site, receptor, unit="kg/ha/yr") -> pd
         ``period, start, element, pathway, value`` [unit without "/yr", per month],
         ``status``.
     """
-    sel = ds_month.sel(site=site, receptor=receptor)
+    pick = _picker(ds_month, site, receptor)
+    labels = pick("period").astype(str)
+    starts = pd.to_datetime(pick("period_start"))
+    names = list(pick("total").astype(str))
+    dep, status = pick("total_deposition"), pick("total_status").astype(str)
     rows = []
-    starts = pd.to_datetime(sel["period_start"].values)
     for el in ("S", "N"):
         for pw in ("wet", "dry"):
-            name = f"{el}_{pw}"
-            dep = sel["total_deposition"].sel(total=name).values
+            j = names.index(f"{el}_{pw}")
             rows.append(pd.DataFrame({
-                "period": sel["period"].values.astype(str), "start": starts, "element": el,
-                "pathway": pw, "value": to_unit(dep, el, unit),
-                "status": sel["total_status"].sel(total=name).values.astype(str)}))
+                "period": labels, "start": starts, "element": el,
+                "pathway": pw, "value": to_unit(dep[:, j], el, unit), "status": status[:, j]}))
     return pd.concat(rows, ignore_index=True)
 
 

@@ -1,0 +1,72 @@
+"""The in-place figure update: only changes are sent, and the widget ends up showing
+what a freshly built figure shows.
+
+Reference: plotly's own validated objects (``plotly.graph_objects``): a widget updated
+by :func:`workbench.ui.controls.refresh` must read back the same values as a Figure
+built from scratch by plotly.
+"""
+import numpy as np
+import plotly.graph_objects as go
+import pytest
+
+from workbench.ui import figures
+from workbench.ui.controls import figure_widget, refresh
+
+
+@pytest.fixture(scope="module")
+def result(session):
+    return session.run(session.baseline, "ridge", 2021, 2021, "month")
+
+
+def _values(fig):
+    """Trace name -> (y, marker opacity, customdata) as plain lists."""
+    out = {}
+    for tr in fig.data:
+        op = getattr(tr.marker, "opacity", None)
+        out[tr.name] = (list(tr.y), None if op is None or np.isscalar(op) else list(op),
+                        list(tr.customdata) if tr.customdata is not None else None)
+    return out
+
+
+def test_the_spec_is_valid_plotly_and_the_figure_is_built_from_it(result):
+    spec = figures.budget_bars_spec(result.years, "ridge", "grass")
+    fig = go.Figure(spec["data"], spec["layout"])          # plotly validates every key
+    assert _values(fig) == _values(figures.budget_bars(result.years, "ridge", "grass"))
+    spec = figures.monthly_fluxes_spec(result.budget, "ridge", "grass")
+    fig = go.Figure(spec["data"], spec["layout"])
+    ref = figures.monthly_fluxes(result.budget, "ridge", "grass")
+    assert [t.yaxis for t in fig.data] == [t.yaxis for t in ref.data] == ["y", "y", "y2", "y2"]
+    assert _values(fig) == _values(ref)
+    assert fig.layout.yaxis2.title.text == ref.layout.yaxis2.title.text
+
+
+def test_refresh_sends_only_what_changed_and_matches_a_fresh_figure(result):
+    w = figure_widget(figures.budget_bars(result.years, "ridge", "grass"))
+    first = refresh(w, figures.budget_bars_spec(result.years, "ridge", "grass"))
+    assert not first["replaced"]
+    again = refresh(w, figures.budget_bars_spec(result.years, "ridge", "grass"))
+    assert again == {"restyled": 0, "relayout": 0, "replaced": False}
+    # another receptor: new numbers and a new title, same traces
+    step = refresh(w, figures.budget_bars_spec(result.years, "ridge", "conifer_forest"))
+    assert not step["replaced"] and step["restyled"] > 0 and step["relayout"] == 1
+    fresh = figures.budget_bars(result.years, "ridge", "conifer_forest")
+    assert _values(w) == _values(fresh)
+    assert w.layout.title.text == fresh.layout.title.text
+    # another unit: the axis titles change too
+    refresh(w, figures.budget_bars_spec(result.years, "ridge", "conifer_forest", None, "eq/ha/yr"))
+    fresh = figures.budget_bars(result.years, "ridge", "conifer_forest", None, "eq/ha/yr")
+    assert _values(w) == _values(fresh)
+    assert w.layout.yaxis.title.text == fresh.layout.yaxis.title.text == "eq ha-1 yr-1"
+
+
+def test_refresh_replaces_traces_of_another_kind_and_keeps_shapes_in_step():
+    w = figure_widget(go.Figure(go.Scatter(y=[1.0, 2.0]), layout={"title": {"text": "a"}}))
+    f = go.Figure(go.Scatter(y=[3.0, 4.0]))
+    f.add_hline(y=3.5)
+    assert refresh(w, f)["replaced"] is False
+    assert list(w.data[0].y) == [3.0, 4.0] and len(w.layout.shapes) == 1
+    assert refresh(w, go.Figure(go.Scatter(y=[3.0, 4.0])))["relayout"] >= 1
+    assert len(w.layout.shapes) == 0                         # a removed line is gone
+    out = refresh(w, {"data": [{"type": "bar", "y": [1, 2]}, {"type": "bar", "y": [2, 1]}],
+                      "layout": {}})
+    assert out["replaced"] and [t.type for t in w.data] == ["bar", "bar"]
