@@ -244,14 +244,16 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     active = np.array([[r in catalogue[s].surfaces for r in receptors] for s in sites])
     bulk = np.array([catalogue[s].collector == "bulk" for s in sites])
     notes = []
+    labels = periods["label"].values
     if wet is not None:
-        w = wet.reindex(site=sites, period=periods["label"].values)
+        w = wet if _same_axis(wet, "site", sites) and _same_axis(wet, "period", labels) else \
+            wet.reindex(site=sites, period=labels)
         w_status = w["status"].values.astype(object)
         w_status = np.where(pd.isna(w_status), "missing", w_status)
         w_frac = np.fmin(np.fmin(w["gauge_fraction"].values, w["coverage_fraction"].values),
                          w["valid_precip_fraction"].values)
     if dry is not None:
-        dr = dry.reindex(receptor=list(receptors))
+        dr = dry if _same_axis(dry, "receptor", receptors) else dry.reindex(receptor=list(receptors))
         d_species = list(dr["species"].values)
         d_dep, d_cov = dr["deposition"].values, dr["coverage"].values
         d_vdc, d_fs, d_meas = dr["vd_coverage"].values, dr["vd_filled_share"].values, dr["measured"].values
@@ -314,69 +316,123 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             fractions["vd_coverage"][:, :, :, j] = vdc
     dep = np.where(status == "missing", np.nan, dep)
     compl = np.where(status == "missing", np.nan, compl)
-    ds = xr.Dataset(
-        {"deposition": (("site", "receptor", "period", "component"), dep,
-                        {"units": "mol m-2", "long_name": "deposition as amount of element"}),
-         "completeness": (("site", "receptor", "period", "component"), compl,
-                          {"units": "1", "long_name": "smallest of the component's fractions"}),
-         **{name: (("site", "receptor", "period", "component"), np.where(status == "missing", np.nan, v),
-                   {"units": "1", "long_name": FRACTIONS[name]}) for name, v in fractions.items()},
-         "note": (("site", "receptor", "period", "component"), comp_note),
-         "status": (("site", "receptor", "period", "component"), status)},
-        coords={"site": sites, "receptor": list(receptors), "period": periods["label"].values,
-                "component": [f"{e}/{p}/{s}" for e, p, s in comps],
-                "element": ("component", [c[0] for c in comps]),
-                "pathway": ("component", [c[1] for c in comps]),
-                "species": ("component", [c[2] for c in comps]),
-                "period_start": ("period", periods["start"].values),
-                "period_end": ("period", periods["end"].values),
-                "period_hours": ("period", periods["hours"].to_numpy(dtype=float)),
-                "annual_factor": ("period", annual_factor(periods))})
-    ds = add_totals(ds.assign(active=(("site", "receptor"), active)))
+    dims = ("site", "receptor", "period", "component")
+    elements = np.array([c[0] for c in comps])
+    pathways = np.array([c[1] for c in comps])
+    species = np.array([c[2] for c in comps])
+    data = {"deposition": xr.Variable(dims, dep, {"units": "mol m-2",
+                                                  "long_name": "deposition as amount of element"}),
+            "completeness": xr.Variable(dims, compl, {"units": "1", "long_name":
+                                                      "smallest of the component's fractions"}),
+            **{name: xr.Variable(dims, np.where(status == "missing", np.nan, v),
+                                 {"units": "1", "long_name": FRACTIONS[name]})
+               for name, v in fractions.items()},
+            "note": xr.Variable(dims, comp_note),
+            "status": xr.Variable(dims, status),
+            "active": xr.Variable(("site", "receptor"), active)}
+    names, totals = _totals(dep, status, compl, elements, pathways, species)
+    data.update(totals)
+    coords = {"site": sites, "receptor": list(receptors), "period": labels,
+              "component": [f"{e}/{p}/{s}" for e, p, s in comps],
+              "element": ("component", elements), "pathway": ("component", pathways),
+              "species": ("component", species),
+              "period_start": ("period", periods["start"].values),
+              "period_end": ("period", periods["end"].values),
+              "period_hours": ("period", periods["hours"].to_numpy(dtype=float)),
+              "annual_factor": ("period", annual_factor(periods)), "total": names}
     if dry is not None:
-        brackets = {v: dr[v].variable for v in dr.data_vars if v.startswith("bracket_")}
-        brackets["air_concentration"] = dr["concentration"].rename(species="air_species").variable
-        ds = ds.assign(brackets).assign_coords(air_species=dr["species"].values)
+        data.update({v: dr.variables[v] for v in dr.data_vars if v.startswith("bracket_")})
+        conc = dr.variables["concentration"]
+        data["air_concentration"] = xr.Variable(
+            tuple("air_species" if d == "species" else d for d in conc.dims), conc.values,
+            conc.attrs)
+        coords["air_species"] = dr["species"].values
+    ds = xr.Dataset(data, coords=coords)               # built once (each assign aligns)
     ds.attrs.update({"options": json.dumps(options.to_dict(), sort_keys=True),
                      "notes": json.dumps(notes),
                      "omissions": json.dumps([list(o) for o in OMISSIONS])})
     return ds
 
 
-def add_totals(ds: xr.Dataset) -> xr.Dataset:
-    """Per-element sums by pathway (wet, dry, total), their status and completeness."""
-    el = ds["element"].values
-    pw = ds["pathway"].values
+def _same_axis(ds: xr.Dataset, dim: str, values) -> bool:
+    """The Dataset's coordinate `dim` is `values`, in order (no reindex needed)."""
+    have = ds.indexes[dim]
+    return len(have) == len(values) and bool((np.asarray(have, dtype=object)
+                                               == np.asarray(values, dtype=object)).all())
+
+
+def _totals(dep, status, compl, element, pathway, species):
+    """Per-element sums by pathway and their status, from the component arrays.
+
+    Parameters
+    ----------
+    dep, status, compl : ndarray
+        (..., component) deposition [mol m-2], status (str) and completeness [1].
+    element, pathway, species : ndarray of str
+        Per component.
+
+    Returns
+    -------
+    names : list of str
+        ``S_wet`` ... ``N_total``.
+    variables : dict
+        ``total_deposition`` [mol m-2], ``total_status``, ``total_passes``,
+        ``total_missing_components``, ``total_completeness`` [1] as xarray Variables
+        with dims (site, receptor, period, total).
+    """
     out = {}
     for e in ("S", "N"):
         for p in ("wet", "dry", "total"):
-            sel = (el == e) & ((pw == p) if p != "total" else True)
-            d = ds["deposition"].values[..., sel]
-            st = ds["status"].values[..., sel]
+            sel = (element == e) & ((pathway == p) if p != "total" else True)
+            d = dep[..., sel]
+            st = status[..., sel]
             total = np.where(np.isfinite(d).any(-1), np.nansum(d, -1), np.nan)
             combined, passes = combine_status(st)
             absent = np.full(total.shape, "", dtype=object)
-            for k, spn in enumerate(ds["species"].values[sel]):
+            for k, spn in enumerate(species[sel]):
                 absent = np.where(st[..., k] == "missing",
                                   np.where(absent == "", spn, absent + " " + spn), absent)
-            out[f"{e}_{p}"] = (total, combined, passes, absent,
-                               np.nanmin(np.where(st == "missing", np.nan, ds["completeness"].values[..., sel]), -1)
-                               if (st != "missing").any() else np.full(total.shape, np.nan))
+            with np.errstate(all="ignore"):
+                worst = (np.nanmin(np.where(st == "missing", np.nan, compl[..., sel]), -1)
+                         if (st != "missing").any() else np.full(total.shape, np.nan))
+            out[f"{e}_{p}"] = (total, combined, passes, absent, worst)
     names = list(out)
     dims = ("site", "receptor", "period", "total")
-    with np.errstate(all="ignore"):
-        new = {
-            "total_deposition": (dims, np.stack([out[n][0] for n in names], -1),
-                                 {"units": "mol m-2", "long_name": "sum of components (element)"}),
-            "total_status": (dims, np.stack([out[n][1] for n in names], -1)),
-            "total_passes": (dims, np.stack([out[n][2] for n in names], -1),
-                             {"long_name": "present components pass completeness"}),
-            "total_missing_components": (dims, np.stack([out[n][3] for n in names], -1),
-                                         {"long_name": "components without data"}),
-            "total_completeness": (dims, np.stack([out[n][4] for n in names], -1), {"units": "1"}),
-        }
-    ds = ds.assign_coords(total=names).assign(new)
-    return ds
+
+    def stack(i):
+        return np.stack([out[n][i] for n in names], -1)
+    return names, {
+        "total_deposition": xr.Variable(dims, stack(0), {"units": "mol m-2",
+                                                         "long_name": "sum of components (element)"}),
+        "total_status": xr.Variable(dims, stack(1)),
+        "total_passes": xr.Variable(dims, stack(2),
+                                    {"long_name": "present components pass completeness"}),
+        "total_missing_components": xr.Variable(dims, stack(3),
+                                                {"long_name": "components without data"}),
+        "total_completeness": xr.Variable(dims, stack(4), {"units": "1"})}
+
+
+def add_totals(ds: xr.Dataset) -> xr.Dataset:
+    """Per-element sums by pathway (wet, dry, total), their status and completeness.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        Components (dims site, receptor, period, component): ``deposition`` [mol m-2],
+        ``status``, ``completeness`` [1], coordinates ``element``, ``pathway``,
+        ``species``.
+
+    Returns
+    -------
+    xarray.Dataset
+        `ds` with the variables of :func:`_totals` and the coordinate ``total``.
+    """
+    order = ("site", "receptor", "period", "component")
+    names, totals = _totals(ds["deposition"].transpose(*order).values,
+                            ds["status"].transpose(*order).values,
+                            ds["completeness"].transpose(*order).values,
+                            ds["element"].values, ds["pathway"].values, ds["species"].values)
+    return ds.assign_coords(total=names).assign(totals)
 
 
 def derived(ds: xr.Dataset) -> xr.Dataset:

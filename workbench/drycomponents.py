@@ -10,6 +10,8 @@ Units: Vd [m s-1], concentrations [mol m-3] or [mol mol-1], deposition [mol m-2]
 """
 from __future__ import annotations
 
+import hashlib
+
 import numpy as np
 import pandas as pd
 import xarray as xr
@@ -72,22 +74,38 @@ def _nss_particles(air: xr.Dataset, basis: str) -> xr.Dataset:
 def _pair_air(air: xr.Dataset, pair: str, into: str) -> xr.Dataset:
     """Air dataset with both members of a pair moved into one species (`into`)."""
     gas, part = PAIRS[pair]
-    air = air.copy()
-    g = air[gas].values if gas in air else np.full(air.sizes["period"], np.nan)
-    p = air[part].values if part in air else np.full(air.sizes["period"], np.nan)
+    n = air.sizes["period"]
+    g = air[gas].values if gas in air else np.full(n, np.nan)
+    p = air[part].values if part in air else np.full(n, np.nan)
     total = np.where(np.isfinite(g) & np.isfinite(p), g + p, np.nan)
     other = part if into == gas else gas
-    air[into] = (("period",), total, dict(air[into].attrs if into in air else air[other].attrs))
-    air[f"{into}_censored"] = (("period",), np.zeros(air.sizes["period"], bool))
-    air[f"{into}_detection_limit"] = (("period",), np.full(air.sizes["period"], np.nan))
+    new = {into: xr.Variable(("period",), total,
+                             dict(air[into].attrs if into in air else air[other].attrs)),
+           f"{into}_censored": xr.Variable(("period",), np.zeros(n, bool)),
+           f"{into}_detection_limit": xr.Variable(("period",), np.full(n, np.nan))}
     if f"{other}_method" in air and f"{into}_method" not in air:
-        air[f"{into}_method"] = air[f"{other}_method"]
+        new[f"{into}_method"] = air[f"{other}_method"].variable
     if other in air:
-        air[other] = air[other] * 0.0
-    return air
+        new[other] = (air[other] * 0.0).variable
+    return air.assign(new)                       # one merge (each item set costs ~1 ms)
 
 
-def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None):
+def _fingerprint(air: xr.Dataset, species: str) -> str:
+    """Digest of what the rows of a species read from the air dataset (its values,
+    censoring, detection limits, methods, sites and times), for content-keyed caches."""
+    h = hashlib.blake2b(digest_size=16)
+    for name in (species, f"{species}_censored", f"{species}_detection_limit",
+                 f"{species}_method", "site", "start", "end"):
+        if name in air.variables:
+            v = air.variables[name]
+            h.update(name.encode())
+            h.update(np.ascontiguousarray(v.values).astype(str if v.dtype == object else v.dtype)
+                     .tobytes())
+    h.update(str(air[species].attrs.get("quantity", "")).encode())
+    return h.hexdigest()
+
+
+def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=None):
     """Deposition over every air-sampling period of every species (period-independent).
 
     Parameters
@@ -102,6 +120,11 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None):
         Reused between calls with the same air preparation (sulfate basis, pair split,
         censoring, profile, method): keyed by species and the identity of its Vd, so a
         change of one species' velocity recomputes that species only.
+    shared : dict, optional
+        Reused between calls with any air preparation: the per-species rows keyed by
+        the content of the air columns they read (:func:`_fingerprint`), the flux
+        options and the identity of the Vd, and the cumulative Vd counts; so a change
+        of the pair split recomputes the pair members only.
 
     Returns
     -------
@@ -128,21 +151,26 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None):
         memo["air"] = prepared
     air = memo["air"]
 
+    shared = memo if shared is None else shared
+    fkey = repr(fopt)
+
     def arrays(sp):
-        key = ("arrays", sp, id(vel[sp]))
+        key = ("arrays", sp, id(vel[sp]), tuple(sites))
+        if key in shared:
+            return shared[key]
         if key not in memo:
             vd, was, _ = vel[sp]
             vd = vd.reindex(site=sites).transpose("site", "receptor", "time")
             was_np = was.reindex(site=sites, fill_value=False).transpose(
                 "site", "receptor", "time").values
             valid_raw = np.isfinite(vd.values) & ~was_np
-            memo[key] = (vd, vd.values, _cumulative(valid_raw.astype(float)),
-                         _cumulative(was_np.astype(float)), vel[sp])
-        return memo[key]
+            shared[key] = (vd, vd.values, _cumulative(valid_raw.astype(float)),
+                           _cumulative(was_np.astype(float)), vel[sp])
+        return shared[key]
 
     def one(air_in, sp, vd_sp, key):
-        key = key + (id(vel[vd_sp]),)
-        if key not in memo:
+        key = ("rows", sp, id(vel[vd_sp]), tuple(sites), fkey, _fingerprint(air_in, sp))
+        if key not in shared:
             vd, v_np = arrays(vd_sp)[:2]
             rows, site_of, conc, _, quantity, weight, n_air, notes = _inputs_for(
                 air_in, sp, vd, met, fopt)
@@ -152,8 +180,8 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None):
             r["site_index"] = si
             r["conc"] = conc[rows]
             r["quantity"] = quantity
-            memo[key] = (r, notes)
-        return memo[key]
+            shared[key] = (r, notes, vel[vd_sp])     # the Vd held: its id stays unique
+        return shared[key][:2]
 
     out = {"species": {}, "bracket": {}, "notes": [], "times": times,
            "receptors": any_vd["receptor"].values, "sites": sites, "vd_cum": {}}

@@ -225,7 +225,7 @@ class Study:
         key = repr(dry_options) + _key(overrides) + _key(fixed_velocity) + flux
         return self._cached("dry", "rows|" + key, lambda: dry_rows(
             self.inputs.air, vel, self.inputs.met, self.catalogue(overrides).ids, budget_options,
-            memo))
+            memo, self._memo.setdefault("shared", {})))
 
     def dry(self, dry_options, budget_options, periods, fixed_velocity=None, overrides=None):
         rows = self.dry_rows(dry_options, budget_options, fixed_velocity, overrides)

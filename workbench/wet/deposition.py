@@ -56,7 +56,7 @@ def _met_fractions(table, screened, met):
 
 def _split(screened, ptable, opt, met):
     """Long table of (sample, period) rows with the precipitation share of each."""
-    table = _periods.split_intervals(screened["start"].values, screened["end"].values, ptable)
+    table = _periods.split_intervals(screened.variables["start"].values, screened.variables["end"].values, ptable)
     frac = table["fraction"].values
     method = np.full(len(table), "hours", dtype=object)
     if opt.straddle == "met" and met is not None and "precipitation" in met:
@@ -81,7 +81,7 @@ def _weighted(table, screened, weight_all, used, flat, n_flat, species):
     """Numerators and denominators of the PWM of each species per flat (site, period)."""
     num, den = {}, {}
     for sp in species:
-        c = np.asarray(screened[sp].values, dtype=float)[table["interval"].values]
+        c = np.asarray(screened.variables[sp].values, dtype=float)[table["interval"].values]
         ok = used & np.isfinite(c)
         w = np.where(ok, weight_all, 0.0)
         num[sp] = group_sums(w * np.where(ok, c, 0.0), flat, n_flat)
@@ -91,12 +91,12 @@ def _weighted(table, screened, weight_all, used, flat, n_flat, species):
 
 def _climatology(screened, opt, met, site_idx, n_site, species, mult):
     """Multi-year PWM per site and season (and over the whole record) [mol m-3]."""
-    t0, t1 = screened["start"].values.min(), screened["end"].values.max()
+    t0, t1 = screened.variables["start"].values.min(), screened.variables["end"].values.max()
     seasons = _periods.make_periods(t0, t1, "season")
     table = _split(screened, seasons, opt, met)
     i = table["interval"].values
-    depth = screened["gauge_depth_used"].values[i]
-    used = screened["used"].values.astype(bool)[i]
+    depth = screened.variables["gauge_depth_used"].values[i]
+    used = screened.variables["used"].values.astype(bool)[i]
     weight = np.where(used, depth * table["share"].values / mult[i], 0.0)
     s_of = pd.Index(_periods.SEASON_NAMES).get_indexer(seasons["season"].values)
     shape = (n_site, _N_SEASONS)
@@ -165,18 +165,18 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     if "status" not in screened:
         raise ValueError("wet_deposition needs screened samples: call workbench.wet.screen first")
     ptable = _periods_table(periods, screened, opt)
-    sites = np.unique(screened["site"].values.astype(str))
+    sites = np.unique(screened.variables["site"].values.astype(str))
     n_site, n_per = len(sites), len(ptable)
-    site_idx = pd.Index(sites).get_indexer(screened["site"].values.astype(str))
+    site_idx = pd.Index(sites).get_indexer(screened.variables["site"].values.astype(str))
     species = _species_list(screened)
-    status = screened["status"].values.astype(str)
-    used_s = screened["used"].values.astype(bool)
-    gauge_ok = screened["gauge_valid"].values.astype(bool)
-    depth = screened["gauge_depth_used"].values.astype(float)
+    status = screened.variables["status"].values.astype(str)
+    used_s = screened.variables["used"].values.astype(bool)
+    gauge_ok = screened.variables["gauge_valid"].values.astype(bool)
+    depth = screened.variables["gauge_depth_used"].values.astype(float)
     covering = used_s | (status == "dry")
 
-    s_all = screened["start"].values.astype("datetime64[ns]")
-    e_all = screened["end"].values.astype("datetime64[ns]")
+    s_all = screened.variables["start"].values.astype("datetime64[ns]")
+    e_all = screened.variables["end"].values.astype("datetime64[ns]")
     p_s = ptable["start"].values.astype("datetime64[ns]")
     p_e = ptable["end"].values.astype("datetime64[ns]")
     origin = min(s_all.min(), p_s.min()) if len(s_all) else p_s.min()
@@ -210,7 +210,7 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     counts = {f"n_{s}": per((status[i] == s).astype(float)).astype(int) for s in STATUSES}
     n_samples = per(np.ones(len(i))).astype(int)
     n_valid = counts["n_used"] + counts["n_flagged"]
-    filled_src = screened["gauge_source"].values.astype(str)
+    filled_src = screened.variables["gauge_source"].values.astype(str)
     n_gauge_filled = per((np.isin(filled_src[i], ["collector", "met"])).astype(float)).astype(int)
     gauge_fraction = gauge_hours / hours
     coverage_fraction = cover_hours / hours
@@ -308,40 +308,39 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     var("status", period_status, "", "complete | flagged | filled | missing")
     var("completeness_reasons", reasons, "", "failed completeness criteria ('; '-joined)")
     var("filled", filled, "", "PWM filled with the multi-year seasonal PWM")
-    ds = xr.Dataset(out, coords=coords)
-
     # --- per-ion completeness -----------------------------------------------------------
     ions = [sp for sp in species]
     frac_ion = np.stack([np.where(precip > 0, den[sp].reshape(shape) / np.where(precip > 0, precip, 1.0),
                                   np.nan) for sp in ions], axis=-1)
     nval_ion, ncen_ion = [], []
     for sp in ions:
-        c = np.asarray(screened[sp].values, dtype=float)[i]
+        c = np.asarray(screened.variables[sp].values, dtype=float)[i]
         nval_ion.append(per((used & np.isfinite(c)).astype(float)).astype(int))
         cen_name = f"{sp}_censored"
-        cen = (np.asarray(screened[cen_name].values, bool)[i] if cen_name in screened
+        cen = (np.asarray(screened.variables[cen_name].values, bool)[i] if cen_name in screened
                else np.zeros(len(i), bool))
         ncen_ion.append(per((used & cen).astype(float)).astype(int))
-    ds = ds.assign_coords(ion=ions)
-    ds["ion_valid_precip_fraction"] = (("site", "period", "ion"), frac_ion,
-                                       {"units": "1", "long_name": "fraction of precipitation "
-                                        "with a valid value of the ion"})
-    ds["ion_n_valid"] = (("site", "period", "ion"), np.stack(nval_ion, -1),
-                         {"units": "1", "long_name": "valid samples with a value of the ion"})
-    ds["ion_n_censored"] = (("site", "period", "ion"), np.stack(ncen_ion, -1),
-                            {"units": "1", "long_name": "censored values among valid samples"})
+    coords["ion"] = ions
+    out["ion_valid_precip_fraction"] = (("site", "period", "ion"), frac_ion,
+                                        {"units": "1", "long_name": "fraction of precipitation "
+                                         "with a valid value of the ion"})
+    out["ion_n_valid"] = (("site", "period", "ion"), np.stack(nval_ion, -1),
+                          {"units": "1", "long_name": "valid samples with a value of the ion"})
+    out["ion_n_censored"] = (("site", "period", "ion"), np.stack(ncen_ion, -1),
+                             {"units": "1", "long_name": "censored values among valid samples"})
+    ds = xr.Dataset(out, coords=coords)                # built once (each item set aligns)
 
     # --- provenance ---------------------------------------------------------------------
     in_period = np.zeros(screened.sizes["sample"], bool)
     in_period[np.unique(i)] = True
     reason_labels = [v for v in screened.data_vars if v.startswith("qa_")]
-    excluded_by = {screened[v].attrs["long_name"]: int((screened[v].values & in_period &
+    excluded_by = {screened.variables[v].attrs["long_name"]: int((screened.variables[v].values & in_period &
                                                         (status == "excluded")).sum())
                    for v in reason_labels}
-    flagged_by = {screened[v].attrs["long_name"]: int((screened[v].values & in_period &
+    flagged_by = {screened.variables[v].attrs["long_name"]: int((screened.variables[v].values & in_period &
                                                        (status == "flagged")).sum())
                   for v in reason_labels}
-    censored = {sp: int(((np.asarray(screened[f"{sp}_censored"].values, bool)) & in_period &
+    censored = {sp: int(((np.asarray(screened.variables[f"{sp}_censored"].values, bool)) & in_period &
                          used_s).sum()) for sp in species if f"{sp}_censored" in screened}
     ds.attrs.update({
         "title": "wet deposition per site and period",

@@ -7,6 +7,8 @@ over the handful of ions, flag codes and reasons.
 """
 from __future__ import annotations
 
+import functools
+
 import json
 
 import numpy as np
@@ -35,8 +37,17 @@ def _values(ds, name, default=np.nan, dtype=float):
 
 def _flag_table(flags_text: np.ndarray):
     """Per-code membership of the flags column: dict code -> bool array, and unknown."""
+    key = tuple("" if (v is None or (isinstance(v, float) and np.isnan(v))) else str(v)
+                for v in flags_text)
+    table, unknown = _flag_table_of(key)
+    return {k: v.copy() for k, v in table.items()}, unknown.copy()
+
+
+@functools.lru_cache(maxsize=16)
+def _flag_table_of(flags_text: tuple):
+    """:func:`_flag_table` of a tuple of texts (cached: the options do not change it)."""
     n = len(flags_text)
-    text = pd.Series(flags_text, dtype=object).fillna("").astype(str)
+    text = pd.Series(flags_text, dtype=object).astype(str)
     text = text.where(~text.isin(["nan", "None"]), "")
     tokens = text.str.replace(r"[,;]", " ", regex=True).str.split().explode()
     tokens = tokens[tokens.notna() & (tokens != "")]
@@ -49,9 +60,28 @@ def _flag_table(flags_text: np.ndarray):
 
 
 def _site_stat(values, sites, how: str):
-    """Per-site statistic of `values` broadcast back to the samples (NaN ignored)."""
-    grouped = pd.Series(values).groupby(pd.Series(sites))
-    return grouped.transform(how).values
+    """Per-site statistic of `values` broadcast back to the samples (NaN ignored).
+
+    `how` is ``"median"``, ``"sum"`` or ``"count"`` (as pandas' groupby transform: a
+    site without a finite value gets NaN for the median, 0 for the sum and count).
+    A loop over the few sites, not over samples.
+    """
+    values = np.asarray(values, dtype=float)
+    sites = np.asarray(sites)
+    out = np.full(len(values), np.nan)
+    for s in pd.unique(sites):
+        m = sites == s
+        v = values[m]
+        ok = np.isfinite(v)
+        if how == "median":
+            out[m] = np.median(v[ok]) if ok.any() else np.nan
+        elif how == "sum":
+            out[m] = v[ok].sum()
+        elif how == "count":
+            out[m] = float(ok.sum())
+        else:
+            raise ValueError(f"unknown statistic {how!r}")
+    return out
 
 
 def _join(acc, mask, label):
