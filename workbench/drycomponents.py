@@ -156,29 +156,36 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=Non
 
     def arrays(sp):
         key = ("arrays", sp, id(vel[sp]), tuple(sites))
-        if key in shared:
-            return shared[key]
-        if key not in memo:
+        if key not in shared:
             vd, was, _ = vel[sp]
-            vd = vd.reindex(site=sites).transpose("site", "receptor", "time")
-            was_np = was.reindex(site=sites, fill_value=False).transpose(
-                "site", "receptor", "time").values
+            if list(vd["site"].values) != sites:
+                vd, was = vd.reindex(site=sites), was.reindex(site=sites, fill_value=False)
+            vd = vd.transpose("site", "receptor", "time")
+            was_np = was.transpose("site", "receptor", "time").values
             valid_raw = np.isfinite(vd.values) & ~was_np
             shared[key] = (vd, vd.values, _cumulative(valid_raw.astype(float)),
                            _cumulative(was_np.astype(float)), vel[sp])
+        return shared[key]
+
+    def inputs(air_in, sp, vd):
+        """The air side of a species' rows (independent of Vd), keyed by content."""
+        key = ("inputs", sp, tuple(sites), len(times), fkey, _fingerprint(air_in, sp))
+        if key not in shared:
+            rows, site_of, conc, _, quantity, weight, n_air, notes = _inputs_for(
+                air_in, sp, vd, met, fopt)
+            shared[key] = (rows, pd.Index(sites).get_indexer(site_of), conc[rows], quantity,
+                           weight, n_air, notes, air_in["start"].values[rows],
+                           air_in["end"].values[rows])
         return shared[key]
 
     def one(air_in, sp, vd_sp, key):
         key = ("rows", sp, id(vel[vd_sp]), tuple(sites), fkey, _fingerprint(air_in, sp))
         if key not in shared:
             vd, v_np = arrays(vd_sp)[:2]
-            rows, site_of, conc, _, quantity, weight, n_air, notes = _inputs_for(
-                air_in, sp, vd, met, fopt)
-            si = pd.Index(sites).get_indexer(site_of)
-            r = deposition_rows(conc[rows], quantity, si, air_in["start"].values[rows],
-                                air_in["end"].values[rows], times, v_np, n_air, weight)
+            _, si, conc, quantity, weight, n_air, notes, t0, t1 = inputs(air_in, sp, vd)
+            r = deposition_rows(conc, quantity, si, t0, t1, times, v_np, n_air, weight)
             r["site_index"] = si
-            r["conc"] = conc[rows]
+            r["conc"] = conc
             r["quantity"] = quantity
             shared[key] = (r, notes, vel[vd_sp])     # the Vd held: its id stays unique
         return shared[key][:2]
@@ -197,7 +204,10 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=Non
             for how, into in (("all_gas", gas), ("all_particle", part)):
                 bkey = ("bracket", pair, how, id(vel[gas]), id(vel[part]))
                 if bkey not in memo:
-                    memo[bkey] = one(_pair_air(air, pair, into), into, into, bkey)[0]
+                    akey = ("pair_air", pair, into)
+                    if akey not in memo:
+                        memo[akey] = _pair_air(air, pair, into)
+                    memo[bkey] = one(memo[akey], into, into, bkey)[0]
                 out["bracket"][(pair, how)] = memo[bkey]
     out["measured"] = np.stack(
         [np.isin(sites, np.unique(air["site"].values[np.isfinite(air[sp].values)]))

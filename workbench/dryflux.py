@@ -84,38 +84,57 @@ def fill_diurnal(vd: xr.DataArray, min_slot_hours: int = MIN_SLOT_HOURS):
     arr = np.asarray(v.values, dtype=float)
     shape = arr.shape
     rows = arr.reshape(-1, shape[-1])
-    mid = pd.DatetimeIndex(v["time"].values - _HALF_HOUR)
-    years = mid.year.to_numpy()
-    y0 = years.min()
-    n_years = years.max() - y0 + 1
-    month_hour = (mid.month.to_numpy() - 1) * 24 + mid.hour.to_numpy()
-    slot_y = (years - y0) * 288 + month_hour
-    n_rows = rows.shape[0]
     valid = np.isfinite(rows)
-    r_idx = np.repeat(np.arange(n_rows), rows.shape[1])
+    if valid.all():                                   # nothing to fill
+        out, was = rows, np.zeros(rows.shape, bool)
+    else:
+        slot_y, month_hour, n_years = _slots(v["time"].values)
+        n_rows, n_t = rows.shape
+        base = np.arange(n_rows)[:, None]
 
-    def slot_mean(slot, n_slots):
-        idx = r_idx * n_slots + np.tile(slot, n_rows)
-        w = np.where(valid, rows, 0.0).ravel()
-        s = np.bincount(idx, weights=w, minlength=n_rows * n_slots).reshape(n_rows, n_slots)
-        c = np.bincount(idx, weights=valid.ravel().astype(float),
-                        minlength=n_rows * n_slots).reshape(n_rows, n_slots)
-        return s, c
+        def slot_mean(slot, n_slots):
+            idx = (base * n_slots + slot[None, :]).ravel()
+            w = np.where(valid, rows, 0.0).ravel()
+            s = np.bincount(idx, weights=w, minlength=n_rows * n_slots).reshape(n_rows, n_slots)
+            c = np.bincount(idx, weights=valid.ravel().astype(float),
+                            minlength=n_rows * n_slots).reshape(n_rows, n_slots)
+            return s, c
 
-    s_y, c_y = slot_mean(slot_y, n_years * 288)
-    s_a, c_a = slot_mean(month_hour, 288)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        mean_y = np.where(c_y >= min_slot_hours, s_y / c_y, np.nan)
-        mean_a = np.where(c_a > 0, s_a / c_a, np.nan)
-    fill_y = mean_y[:, slot_y]
-    fill_a = mean_a[:, month_hour]
-    fill = np.where(np.isfinite(fill_y), fill_y, fill_a)
-    out = np.where(valid, rows, fill)
-    was = ~valid & np.isfinite(out)
+        s_y, c_y = slot_mean(slot_y, n_years * 288)
+        s_a, c_a = slot_mean(month_hour, 288)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            mean_y = np.where(c_y >= min_slot_hours, s_y / c_y, np.nan)
+            mean_a = np.where(c_a > 0, s_a / c_a, np.nan)
+        fill_y = mean_y[:, slot_y]
+        fill_a = mean_a[:, month_hour]
+        fill = np.where(np.isfinite(fill_y), fill_y, fill_a)
+        out = np.where(valid, rows, fill)
+        was = ~valid & np.isfinite(out)
     filled = v.copy(data=out.reshape(shape)).transpose(*vd.dims)
     was_filled = v.copy(data=was.reshape(shape)).transpose(*vd.dims)
     filled.attrs = dict(vd.attrs)
     return filled, was_filled
+
+
+_SLOTS: dict = {}
+
+
+def _slots(times):
+    """(year, month, hour) slot and (month, hour) slot of each hour, and the number of
+    years, for end-of-hour labels (kept for the last few time axes: every species of a
+    study shares one)."""
+    t = np.asarray(times, dtype="datetime64[ns]")
+    key = (len(t), t[0].item() if len(t) else 0, t[-1].item() if len(t) else 0,
+           hash(t.tobytes()))
+    if key not in _SLOTS:
+        mid = pd.DatetimeIndex(t - _HALF_HOUR)
+        years = mid.year.to_numpy()
+        y0 = years.min()
+        month_hour = (mid.month.to_numpy() - 1) * 24 + mid.hour.to_numpy()
+        if len(_SLOTS) >= 8:
+            _SLOTS.clear()
+        _SLOTS[key] = ((years - y0) * 288 + month_hour, month_hour, int(years.max() - y0 + 1))
+    return _SLOTS[key]
 
 
 def _cumulative(x):
