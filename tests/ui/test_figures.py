@@ -184,3 +184,28 @@ def test_partial_totals_are_never_ranked():
     tot = figures.network_totals(table)
     b_open = [t for t in tot.data if t.name.startswith("b (partial") and t.xaxis == "x2"][0]
     assert b_open.marker.symbol == "circle-open" and b_open.y[0] == 30.0
+
+
+@pytest.mark.parametrize("how", ["mean", "median"])
+def test_hour_season_statistic_equals_pandas_groupby(how):
+    """Reference: pandas groupby(["season", "hour"]).mean() / .median() (NaN skipped,
+    empty slots not listed)."""
+    rng = np.random.default_rng(11)
+    n = 3000
+    hour = rng.integers(0, 24, n)
+    season = rng.choice(["DJF", "MAM", "JJA", "SON"], n)
+    values = rng.lognormal(size=n)
+    values[rng.random(n) < 0.2] = np.nan
+    values[(season == "JJA") & (hour == 5)] = np.nan            # an empty slot
+    got = summaries._by_hour_season(values, hour, season, how)
+    frame = pd.DataFrame({"season": season, "hour": hour, "v": values}).dropna()
+    g = frame.groupby(["season", "hour"])["v"]
+    ref = (g.median() if how == "median" else g.mean()).rename("value").reset_index()
+    ref["n"] = g.size().to_numpy()
+    ref["season"] = pd.Categorical(ref["season"], ["DJF", "MAM", "JJA", "SON"], ordered=True)
+    ref = ref.sort_values(["season", "hour"]).reset_index(drop=True)
+    assert len(got) == len(ref) == 95
+    assert (got["season"].astype(str).to_numpy() == ref["season"].astype(str).to_numpy()).all()
+    np.testing.assert_array_equal(got["hour"].to_numpy(), ref["hour"].to_numpy())
+    np.testing.assert_array_equal(got["n"].to_numpy(), ref["n"].to_numpy())
+    np.testing.assert_allclose(got["value"].to_numpy(), ref["value"].to_numpy(), rtol=1e-13)

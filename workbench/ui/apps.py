@@ -200,10 +200,15 @@ class SiteExplorer(widgets.VBox):
         if name == "deposition velocity":
             if r.velocities is None:
                 return go.Figure(layout=dict(title="no deposition velocities (fixed or no met)"))
+            if template is None:
+                return figures_dry.velocity_diurnal_spec(r.velocities, site, rec, utc_offset_h=off)
             return figures_dry.velocity_diurnal(r.velocities, site, rec, utc_offset_h=off, **t)
         if name == "resistances":
             if r.velocities is None:
                 return go.Figure(layout=dict(title="no resistances (fixed velocities or no met)"))
+            if template is None:
+                return figures_dry.resistance_breakdown_spec(r.velocities, site, rec,
+                                                             self.gas_w.value, off)
             return figures_dry.resistance_breakdown(r.velocities, site, rec, self.gas_w.value, off, **t)
         if name == "ion balance":
             return figures_wet.ion_balance(r.screened, site, self.settings.wet,

@@ -206,15 +206,49 @@ def local_hour_and_season(times, utc_offset_h: float):
 
 
 def _by_hour_season(values: np.ndarray, hour, season, how: str):
-    """Statistic of `values` per (season, hour): DataFrame season, hour, value, n."""
-    frame = pd.DataFrame({"season": season, "hour": hour, "v": values})
-    frame = frame[np.isfinite(frame["v"])]
-    g = frame.groupby(["season", "hour"])["v"]
-    out = (g.median() if how == "median" else g.mean()).rename("value").to_frame()
-    out["n"] = g.size()
-    out = out.reset_index()
-    out["season"] = pd.Categorical(out["season"], SEASON_NAMES, ordered=True)
-    return out.sort_values(["season", "hour"]).reset_index(drop=True)
+    """Statistic of `values` per (season, hour): DataFrame season, hour, value, n.
+
+    NaN values are left out; slots without a value are not listed (as a pandas
+    groupby does).  Numpy throughout (bincount for the mean, one sort for the median:
+    the middle value, or the mean of the two middle values).
+    """
+    values = np.asarray(values, dtype=float)
+    s_idx = pd.Index(SEASON_NAMES).get_indexer(np.asarray(season))
+    slot = s_idx * 24 + np.asarray(hour)
+    ok = np.isfinite(values) & (s_idx >= 0)
+    v, sl = values[ok], slot[ok]
+    n_slots = len(SEASON_NAMES) * 24
+    n = np.bincount(sl, minlength=n_slots)
+    if how == "median":
+        order = np.lexsort((v, sl))
+        vs = v[order]
+        first = np.concatenate([[0], np.cumsum(n)[:-1]])
+        lo = np.clip(first + (n - 1) // 2, 0, max(len(vs) - 1, 0))
+        hi = np.clip(first + n // 2, 0, max(len(vs) - 1, 0))
+        value = 0.5 * (vs[lo] + vs[hi]) if len(vs) else np.full(n_slots, np.nan)
+    elif how == "mean":
+        value = np.bincount(sl, weights=v, minlength=n_slots) / np.maximum(n, 1)
+    else:
+        raise ValueError(f"unknown statistic {how!r}")
+    keep = n > 0
+    idx = np.flatnonzero(keep)
+    return pd.DataFrame({
+        "season": pd.Categorical(np.asarray(SEASON_NAMES)[idx // 24], SEASON_NAMES, ordered=True),
+        "hour": idx % 24, "value": value[keep], "n": n[keep]})
+
+
+def _series(vel: xr.Dataset, site, receptor):
+    """``get(name)``: the hourly values of a (site, receptor, time) variable of one site
+    and receptor, without ``Dataset.sel`` (which indexes every variable)."""
+    i_site = vel.indexes["site"].get_loc(site)
+    i_rec = vel.indexes["receptor"].get_loc(receptor)
+
+    def get(name):
+        v = vel.variables[name]
+        idx = tuple(i_site if d == "site" else i_rec if d == "receptor" else slice(None)
+                    for d in v.dims)
+        return np.asarray(v.values[idx], dtype=float)
+    return get
 
 
 def diurnal_velocity(vel: xr.Dataset, site, receptor, species, utc_offset_h=0.0) -> pd.DataFrame:
@@ -227,20 +261,23 @@ def diurnal_velocity(vel: xr.Dataset, site, receptor, species, utc_offset_h=0.0)
     ----------
     vel : xarray.Dataset
         Output of :func:`workbench.drydep.velocities` (``vd_<species>`` [m s-1]).
+    site, receptor : str
     species : list of str
+    utc_offset_h : float
+        Local standard time minus UTC [h].
 
     Returns
     -------
     pandas.DataFrame
         ``species, season, hour, value`` [cm s-1], ``n`` (hours averaged).
     """
-    sel = vel.sel(site=site, receptor=receptor)
-    hour, season = local_hour_and_season(sel["time"].values, utc_offset_h)
+    get = _series(vel, site, receptor)
+    hour, season = local_hour_and_season(vel["time"].values, utc_offset_h)
     parts = []
     for sp in species:
-        if f"vd_{sp}" not in sel:
+        if f"vd_{sp}" not in vel:
             continue
-        t = _by_hour_season(sel[f"vd_{sp}"].values * CM_PER_M, hour, season, "mean")
+        t = _by_hour_season(get(f"vd_{sp}") * CM_PER_M, hour, season, "mean")
         t.insert(0, "species", sp)
         parts.append(t)
     if not parts:
@@ -261,13 +298,13 @@ def resistance_medians(vel: xr.Dataset, site, receptor, gas, utc_offset_h=0.0) -
         ``resistance`` (``ra``, ``rb``, ``rc``, ``total``), ``season, hour, value``
         [s m-1], ``n``.
     """
-    sel = vel.sel(site=site, receptor=receptor)
-    hour, season = local_hour_and_season(sel["time"].values, utc_offset_h)
-    parts = {"ra": sel["ra"].values, "rb": sel[f"rb_{gas}"].values, "rc": sel[f"rc_{gas}"].values}
+    get = _series(vel, site, receptor)
+    hour, season = local_hour_and_season(vel["time"].values, utc_offset_h)
+    parts = {"ra": get("ra"), "rb": get(f"rb_{gas}"), "rc": get(f"rc_{gas}")}
     parts["total"] = parts["ra"] + parts["rb"] + parts["rc"]
     out = []
     for name, values in parts.items():
-        t = _by_hour_season(np.asarray(values, float), hour, season, "median")
+        t = _by_hour_season(values, hour, season, "median")
         t.insert(0, "resistance", name)
         out.append(t)
     return pd.concat(out, ignore_index=True)
