@@ -106,3 +106,101 @@ def test_invalid_modes_rejected():
     with pytest.raises(ValueError):
         LogNormalMode(1e-6, 2.0, 1000.0, "salty")
     assert FINE_MODE.mmd == 0.4e-6
+
+
+# --- the fast numpy path of mass_weighted_velocity against the documented functions ----
+
+LAND_USES = ("conifer_forest", "deciduous_forest", "grass", "water", "barren", "snow_ice",
+             "urban", "wetland")
+MODES = (FINE_MODE, LogNormalMode(5e-6, 2.0, 2165.0, "sea_salt"),
+         LogNormalMode(5e-6, 2.2, 2600.0, "none"), LogNormalMode(1e-6, 1.8, 1500.0, "urban"),
+         LogNormalMode(2e-6, 1.5, 1700.0, "rural"), LogNormalMode(0.05e-6, 1.6, 1000.0,
+                                                                 "ammonium_sulfate"))
+
+
+def _hourly_inputs(seed=5, n_site=2, n_time=400):
+    """(site, receptor, time) inputs shaped as in velocities, with NaN and edge values."""
+    rng = np.random.default_rng(seed)
+    n_rec = len(LAND_USES)
+    st = (n_site, 1, n_time)
+    srt = (n_site, n_rec, n_time)
+    rh = rng.uniform(0.0, 1.0, st)
+    rh.flat[::37] = 1.0       # above the growth cap
+    rh.flat[::53] = 0.0       # dry air
+    temp = rng.uniform(250.0, 305.0, st)
+    pres = rng.uniform(70000.0, 103000.0, st)
+    ustar = rng.uniform(0.05, 1.2, srt)
+    ra = rng.uniform(2.0, 400.0, srt)
+    cat = rng.integers(1, 6, st).astype(float)
+    wet = rng.integers(0, 2, srt).astype(float)
+    for a, step in ((rh, 41), (temp, 59), (pres, 71), (ustar, 83), (ra, 97), (cat, 67),
+                    (wet, 43)):
+        a.flat[::step] = np.nan
+    land = np.array(LAND_USES, dtype=object)[None, :, None]
+    return rh, ustar, ra, temp, pres, land, cat, wet
+
+
+def _node_by_node(mode, args, nodes):
+    """The quadrature sum of the public particle_deposition_velocity, node by node."""
+    rh, ustar, ra, temp, pres, land, cat, wet = args
+    diams, weights = p.lognormal_nodes(mode.mmd, mode.gsd, nodes)
+    with np.errstate(divide="ignore", over="ignore"):  # R_1 = 0: R_s = inf, V_d = v_g
+        return sum(w * p.particle_deposition_velocity(d, mode.density, rh, ustar, ra, temp,
+                                                      pres, land, cat, wet, mode.growth)
+                   for d, w in zip(diams, weights))
+
+
+@pytest.mark.parametrize("mode", MODES, ids=lambda m: f"{m.growth}-{m.mmd:g}")
+def test_fast_path_equals_node_by_node_sum(mode, monkeypatch):
+    args = _hourly_inputs()
+    ref = _node_by_node(mode, args, 12)
+
+    def no_slow_path(*a, **k):
+        raise AssertionError("numpy input took the node-by-node path")
+
+    monkeypatch.setattr(p, "particle_deposition_velocity", no_slow_path)
+    fast = p.mass_weighted_velocity(mode, *args, nodes=12)
+    monkeypatch.undo()
+    assert fast.shape == ref.shape == (2, len(LAND_USES), 400)
+    # the same NaN (missing input) and the same values
+    np.testing.assert_array_equal(np.isnan(fast), np.isnan(ref))
+    assert np.isfinite(ref).mean() > 0.5
+    np.testing.assert_allclose(fast, ref, rtol=1e-12, atol=0.0)
+
+
+def test_fast_path_scalars_and_shapes():
+    # scalar inputs, a single land use, the dry and the wet surface
+    for wet in (0.0, 1.0, np.nan):
+        args = (0.8, 0.4, 30.0, 285.0, 99000.0, "grass", 2.0, wet)
+        fast = p.mass_weighted_velocity(MODES[1], *args, nodes=8)
+        ref = _node_by_node(MODES[1], args, 8)
+        assert np.ndim(fast) == 0
+        if np.isnan(wet):
+            assert np.isnan(fast) and np.isnan(ref)
+        else:
+            assert fast == pytest.approx(float(ref), rel=1e-12)
+    # receptors along the last axis (a list of classes), hours along the first
+    rh = np.linspace(0.1, 0.95, 24)[:, None]
+    args = (rh, 0.3, 50.0, 290.0, 1e5, ["water", "urban", "conifer_forest"], 5.0, 0.0)
+    np.testing.assert_allclose(p.mass_weighted_velocity(FINE_MODE, *args),
+                               _node_by_node(FINE_MODE, args, 12), rtol=1e-12)
+
+
+def test_several_modes_at_once_equal_one_by_one():
+    args = _hourly_inputs(seed=8, n_time=100)
+    together = p.mass_weighted_velocities(MODES, *args, nodes=10)
+    for mode, vd in zip(MODES, together):
+        np.testing.assert_array_equal(vd, p.mass_weighted_velocity(mode, *args, nodes=10))
+
+
+def test_xarray_input_equals_numpy():
+    import xarray as xr
+    rh, ustar, ra, temp, pres, land, cat, wet = _hourly_inputs(seed=9, n_site=1, n_time=50)
+    dims3 = ("site", "receptor", "time")
+    da = lambda a: xr.DataArray(a, dims=dims3)  # noqa: E731
+    st = lambda a: xr.DataArray(a[:, 0, :], dims=("site", "time"))  # noqa: E731
+    vd = p.mass_weighted_velocity(MODES[0], st(rh), da(ustar), da(ra), st(temp), st(pres),
+                                  list(LAND_USES), st(cat), da(wet))
+    assert isinstance(vd, xr.DataArray)
+    ref = p.mass_weighted_velocity(MODES[0], rh, ustar, ra, temp, pres, land, cat, wet)
+    np.testing.assert_allclose(vd.transpose(*dims3).values, ref, rtol=1e-12)

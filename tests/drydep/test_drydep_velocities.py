@@ -234,3 +234,22 @@ def test_dask_chunked_equals_in_memory(surfaces):
     lazy = velocities(met.chunk({"time": 24 * 5}), surfaces)
     assert lazy["vd_SO2"].chunks is not None
     xr.testing.assert_allclose(eager, lazy.compute())
+
+
+def test_autumn_frost_and_new_year_in_memory_equal_dask(surfaces):
+    # in memory the first autumn frost and the previous hour's rain are found inside the
+    # hourly block; dask-chunked, beforehand on the whole record: the same hours
+    met = make_met(surfaces, start="2021-09-20T01:00", hours=24 * 120, seed=12,
+                   optional=("snow_cover",))
+    met["temperature"] = met["temperature"] - 4.0  # frosts in October and November
+    opt = DryOptions(gases=("SO2",), particles=("pNO3",))
+    eager = velocities(met, surfaces, opt)
+    lazy = velocities(met.chunk({"time": 24 * 7}), surfaces, opt).compute()
+    assert (eager["seasonal_source"] == 1).any()  # after a first autumn frost
+    for name in ("seasonal_category", "seasonal_source", "surface_wet", "wet_kind",
+                 "wetness_source"):
+        np.testing.assert_array_equal(eager[name].values, lazy[name].values, err_msg=name)
+    xr.testing.assert_allclose(eager, lazy)
+    # the frost rule restarts each year: nothing after the first frost of 2021 in 2022
+    jan = eager["seasonal_source"].sel(time=slice("2022-01-01", None))
+    assert not (jan == 1).any()

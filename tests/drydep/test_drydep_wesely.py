@@ -100,3 +100,34 @@ def test_dataarray_and_dask_lookup_match_numpy():
         st = CanopyState(rec, cat, 600.0, 293.15, 0.0)
         out = w.surface_resistance("O3", st)["rc"].transpose("receptor", "time")
         np.testing.assert_allclose(out.values, expect)
+
+
+def test_several_gases_at_once_equal_one_by_one():
+    # surface_resistances shares the gas-independent work; nothing may leak between gases
+    rng = np.random.default_rng(2)
+    n = 300
+    rec = np.array(["conifer_forest", "water", "crops", "urban", "snow_ice", "wetland"],
+                   dtype=object)[None, :, None]
+    cat = rng.integers(1, 6, (2, 1, n)).astype(float)
+    solar = rng.uniform(0.0, 900.0, (2, 1, n))
+    temp = rng.uniform(255.0, 310.0, (2, 1, n))
+    kind = rng.integers(0, 3, (2, 6, n)).astype(float)
+    for a, step in ((cat, 31), (solar, 37), (temp, 41), (kind, 43)):
+        a.flat[::step] = np.nan
+    st = CanopyState(rec, cat, solar, temp, kind, np.array([0.0, 4.0])[:, None, None])
+    gases = ("SO2", "HNO3", "NH3", "NO2", "O3")
+    together = w.surface_resistances(gases, st)
+    for g in gases:
+        alone = w.surface_resistance(g, st)
+        assert set(alone) == set(together[g]) == {"rc", "floor_used", *w.PATHS}
+        for k in alone:
+            np.testing.assert_array_equal(together[g][k], alone[k], err_msg=f"{g} {k}")
+    assert np.isnan(together["SO2"]["rc"]).any() and np.isfinite(together["SO2"]["rc"]).any()
+
+
+def test_reciprocal_array_path_equals_where_form():
+    r = np.array([0.0, 1e-12, 1e-9, 2.0, 1e30, np.inf, np.nan])
+    where_form = np.where(r == 0, np.inf, 1.0 / np.maximum(r, w._R_TINY))
+    np.testing.assert_array_equal(w._recip(r), where_form)
+    np.testing.assert_array_equal(w._recip(r.reshape(1, -1, 1)).ravel(), where_form)
+    assert where_form[0] == np.inf and where_form[5] == 0.0 and where_form[1] == where_form[2]

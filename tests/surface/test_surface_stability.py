@@ -6,8 +6,8 @@ import numpy as np
 import pytest
 import xarray as xr
 
-from workbench.surface.stability import (psi_h, psi_h_beljaars_holtslag, psi_m,
-                                         psi_m_beljaars_holtslag)
+from workbench.surface.stability import (psi_h, psi_h_beljaars_holtslag, psi_h_paulson, psi_m,
+                                         psi_m_beljaars_holtslag, psi_m_paulson)
 
 # Hand values of Paulson (1970), Eqs. 12-13 with gamma = 16 (Dyer 1974), chosen so
 # that x = (1 - 16 zeta)^(1/4) is a round number:
@@ -78,3 +78,20 @@ def test_input_types(kind):
     out = psi_m(arg)
     assert type(out) is type(arg)
     np.testing.assert_allclose(np.asarray(out), expected)
+
+
+def test_array_path_equals_where_form():
+    # numpy arrays evaluate each branch only where it is used; the values must be those
+    # of the where form on the whole array, to the last bit, also at 0, -0, NaN, inf
+    rng = np.random.default_rng(4)
+    zeta = np.concatenate([[-5.0, -1e-12, -0.0, 0.0, 1e-12, 3.0, np.nan, -np.inf, np.inf],
+                           rng.normal(0.0, 2.0, 200)])
+    for f, unstable, stable in ((psi_m, psi_m_paulson, psi_m_beljaars_holtslag),
+                                (psi_h, psi_h_paulson, psi_h_beljaars_holtslag)):
+        with np.errstate(invalid="ignore"):  # inf * 0 at zeta = inf
+            where_form = np.where(zeta < 0.0, unstable(np.minimum(zeta, 0.0)),
+                                  stable(np.maximum(zeta, 0.0)))
+            np.testing.assert_array_equal(f(zeta), where_form)
+            np.testing.assert_array_equal(f(zeta.reshape(-1, 1, 1)).ravel(), where_form)
+        neg = -np.abs(zeta[9:])
+        np.testing.assert_array_equal(f(neg), unstable(neg))

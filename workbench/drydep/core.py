@@ -7,8 +7,9 @@ that a dask-chunked met Dataset stays lazy.  Steps (docs/methods_dry.md):
 The hourly work runs on plain numpy arrays shaped (site, receptor, time) with
 broadcasting; on a dask-backed met Dataset the same block function runs on each
 chunk through ``xarray.map_blocks``.  The two steps that look across hours (the
-previous hour's rain; the first autumn frost) are done beforehand on the whole
-record, lazily.  Steps:
+previous hour's rain; the first autumn frost) are then done beforehand on the
+whole record, lazily; in memory the block is the whole record and the block
+function does them itself.  Steps:
 
 1. pressure (filled from elevation where missing), air density and viscosity;
 2. solar elevation and cloud cover (measured, else inferred from radiation, else
@@ -98,9 +99,27 @@ def _receptor_roughness(surf, receptors, opt):
 
 
 def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: list) -> xr.Dataset:
-    """All hourly quantities for one in-memory block of the met Dataset."""
+    """All hourly quantities for one in-memory block of the met Dataset.
+
+    Parameters
+    ----------
+    block : xarray.Dataset
+        Met variables (units as in :func:`velocities`), dims (site, time); with
+        ``_previous_precipitation`` [mm] and ``_autumn_frost_seen`` [0/1] when it
+        is a chunk of a longer record (else they are found here).
+    surf : xarray.Dataset
+        Receptor surfaces (site, receptor).
+    opt : DryOptions
+    receptors : list of str
+
+    Returns
+    -------
+    xarray.Dataset
+        The hourly variables of :func:`velocities`, dims (site, receptor, time).
+    """
     scheme = _gas.get_scheme(opt.gas_scheme)
-    surf = surf.sel(site=block["site"].values)
+    if not np.array_equal(surf["site"].values, block["site"].values):
+        surf = surf.sel(site=block["site"].values)
     n_s, n_t, n_r = block.sizes["site"], block.sizes["time"], len(receptors)
 
     def st(name):  # (site, 1, time)
@@ -155,9 +174,17 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     h_pt_m = eb.sensible_heat_flux(eb.net_radiation(k_down, temp, cloud, alb_m), temp, pres, alpha_m)
     h_day = np.where(has_h, h_meas, h_pt_m)
     day = h_day > 0
-    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-        us_unst, _ = eb.ustar_unstable(u, z_eff, z0_m, np.maximum(h_day, _MIN_DAY_FLUX), temp,
-                                       rho, opt.unstable_iterations)
+    # the unstable solve only for the hours that use it (day, u* not measured): the
+    # same element-wise steps on fewer elements
+    solve = day & ~has_us
+    us_unst = np.full(solve.shape, np.nan)
+    if solve.any():
+        def sub(x):
+            return np.broadcast_to(x, solve.shape)[solve]
+        with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+            us_unst[solve], _ = eb.ustar_unstable(
+                sub(u), sub(z_eff), sub(z0_m), sub(np.maximum(h_day, _MIN_DAY_FLUX)), sub(temp),
+                sub(rho), opt.unstable_iterations)
     theta_n = eb.theta_star_night(cloud)
     us_st, theta_lim, limited = eb.ustar_stable(u, z_eff, z0_m, theta_n, temp)
     us_m = np.where(has_us, us_meas, np.where(day, us_unst, us_st))
@@ -202,16 +229,27 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     floor_used, cap_used = floor_used & valid, cap_used & valid
 
     # --- 5. season and wetness -------------------------------------------------------------
-    month = block["time"].dt.month.values[None, None, :]
+    times = block["time"].values
+    month = _seasons.calendar_month(times)[None, None, :]
     if opt.seasonal_category is not None:
         cat = _seasons.category_override(month, opt.seasonal_category) + 0.0 * temp
         cat_src = 3.0 + 0.0 * cat
     else:
         base = _seasons.category_from_month(month, site("latitude")) + 0.0 * temp
-        seen = st(_FROST) > 0.5
+        if _FROST in block:  # found beforehand on the whole record (dask blocks)
+            seen = st(_FROST) > 0.5
+        else:  # the whole record is here
+            seen = _seasons.autumn_frost_seen_array(
+                _seasons.category_from_month(month, site("latitude")), temp,
+                times.astype("datetime64[Y]").astype(np.int64)[None, None, :])
         cat, cat_src = _seasons.category_from_state(base, seen, temp,
                                                     snow if "snow_cover" in block else None)
-    rain = _wetness.rain_wet(precip, st(_PREV))
+    if _PREV in block:  # found beforehand on the whole record (dask blocks)
+        prev = st(_PREV)
+    else:  # the whole record is here: the previous hour's, NaN for the first
+        prev = np.concatenate([np.full(precip.shape[:-1] + (1,), np.nan), precip[..., :-1]],
+                              axis=-1)
+    rain = _wetness.rain_wet(precip, prev)
     dew = _wetness.dew_wet(specific_humidity_deficit(temp, rh, pres), us_r)
     given = st("surface_wet") if "surface_wet" in block else None
     wet, kind, wet_src = _wetness.wetness(opt.wetness_rule, rain, dew, given)
@@ -234,9 +272,10 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     land = rec(np.array(receptors, dtype=object))
     state = _gas.CanopyState(land, cat, k_down, temp, kind, site("terrain_slope"), us_r)
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        comps = _gas.surface_resistances(scheme, opt.gases, state)
         for g in opt.gases:
             rb = _gas.quasi_laminar_resistance(g, us_r, temp, pres)
-            comp = scheme.surface_resistance(g, state)
+            comp = comps[g]
             out[f"rb_{g}"] = srt(rb, "s m-1", f"quasi-laminar resistance of {g}")
             out[f"rc_{g}"] = srt(comp["rc"], "s m-1", f"surface resistance of {g} ({scheme.NAME})")
             if opt.components:
@@ -253,17 +292,20 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             vd = _gas.deposition_velocity(ra, rb, comp["rc"])
             extra = {"note": NH3_NOTE} if g == "NH3" else {}
             out[f"vd_{g}"] = srt(vd, "m s-1", f"dry deposition velocity of {g}", **extra)
-        cache = {}
+        # each distinct mode once, all of them in one call (shared surface terms)
+        parts = {}
+        for sp in opt.particles:
+            spec = opt.mode_of(sp)
+            parts[sp] = [(frac, mode) for frac, mode in (
+                (spec.fine_fraction, spec.fine), (1.0 - spec.fine_fraction, spec.coarse))
+                if frac > 0.0]
+        modes = list(dict.fromkeys(mode for pp in parts.values() for _, mode in pp))
+        cache = dict(zip(modes, _particles.mass_weighted_velocities(
+            modes, rh, us_r, ra, temp, pres, land, cat, wet, opt.size_nodes)))
         for sp in opt.particles:
             spec = opt.mode_of(sp)
             total = 0.0
-            for frac, mode in ((spec.fine_fraction, spec.fine),
-                               (1.0 - spec.fine_fraction, spec.coarse)):
-                if frac <= 0.0:
-                    continue
-                if mode not in cache:
-                    cache[mode] = _particles.mass_weighted_velocity(
-                        mode, rh, us_r, ra, temp, pres, land, cat, wet, opt.size_nodes)
+            for frac, mode in parts[sp]:
                 total = total + frac * cache[mode]
             out[f"vd_{sp}"] = srt(total, "m s-1", f"mass-weighted dry deposition velocity of {sp} "
                                   "(Zhang et al. 2001)", fine_fraction=spec.fine_fraction,
@@ -353,13 +395,16 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         if name not in met:
             raise ValueError(f"met has no {name!r}; see docs/data_model.md")
     aug = met[[v for v in MET_VARIABLES if v in met]]
-    aug = aug.assign({_PREV: met["precipitation"].astype(float).shift(time=1)})
-    if opt.seasonal_category is None:
-        seen = _seasons.autumn_frost_seen(met["time"], surf["latitude"].astype(float),
-                                          met["temperature"].astype(float))
-        aug = aug.assign({_FROST: seen.astype(float)})
-    aug = aug.reset_coords(drop=True).transpose("site", "time")
     lazy = any(v.chunks is not None for v in aug.data_vars.values())
+    if lazy:
+        # the steps that look across hours, on the whole record (lazily); in memory
+        # _hourly sees the whole record and does them itself
+        aug = aug.assign({_PREV: met["precipitation"].astype(float).shift(time=1)})
+        if opt.seasonal_category is None:
+            seen = _seasons.autumn_frost_seen(met["time"], surf["latitude"].astype(float),
+                                              met["temperature"].astype(float))
+            aug = aug.assign({_FROST: seen.astype(float)})
+    aug = aug.reset_coords(drop=True).transpose("site", "time")
     if lazy:
         first = next(v for v in aug.data_vars.values() if v.chunks is not None)
         aug = aug.chunk(dict(zip(first.dims, first.chunks)))
@@ -369,22 +414,25 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
     else:
         hourly = _hourly(aug, surf, opt, receptors)
     _, d_r = _receptor_roughness(surf, receptors, opt)
-    ds = hourly.assign(
-        displacement_height=xr.DataArray(d_r, dims=("site", "receptor"),
-                                         attrs={"units": "m", "long_name": "displacement height"}),
-        active=xr.DataArray(surf["active"].values, dims=("site", "receptor"),
-                            attrs={"units": "1", "long_name": "the site wants this receptor"}))
+    # Variables, added in one step (numpy sums in memory, dask sums when lazy)
+    extra = {
+        "displacement_height": xr.Variable(("site", "receptor"), d_r,
+                                           {"units": "m", "long_name": "displacement height"}),
+        "active": xr.Variable(("site", "receptor"), surf["active"].values,
+                              {"units": "1", "long_name": "the site wants this receptor"})}
     counts = {"n_ustar_floor": "ustar_floor_used", "n_ra_cap": "ra_cap_used",
               "n_theta_star_limited": "theta_star_limited", "n_pressure_estimated": "pressure_estimated",
               "n_ra_height_raised": "ra_height_raised"}
-    if "rc_floor_used_HNO3" in ds:
+    if "rc_floor_used_HNO3" in hourly:
         counts["n_hno3_rc_floor"] = "rc_floor_used_HNO3"
     for name, flag in counts.items():
-        ds[name] = ds[flag].sum("time")
-        ds[name].attrs = {"units": "1", "long_name": f"hours counted: {ds[flag].attrs['long_name']}"}
-    ds["n_cloud_default"] = (ds["cloud_cover_source"] == 2).sum("time")
-    ds["n_cloud_default"].attrs = {"units": "1", "long_name": "hours counted: cloud cover from "
-                                   "the night_cloud_cover option"}
+        v = hourly.variables[flag]
+        extra[name] = v.sum("time")
+        extra[name].attrs = {"units": "1", "long_name": f"hours counted: {v.attrs['long_name']}"}
+    extra["n_cloud_default"] = (hourly.variables["cloud_cover_source"] == 2).sum("time")
+    extra["n_cloud_default"].attrs = {"units": "1", "long_name": "hours counted: cloud cover "
+                                      "from the night_cloud_cover option"}
+    ds = hourly.assign(extra)
     ds.attrs = {"gas_scheme": _gas.get_scheme(opt.gas_scheme).REFERENCE,
                 "particle_scheme": "Zhang et al. (2001), Atmos. Environ. 35, 549-560",
                 "nh3": NH3_NOTE, "wetness_rule": opt.wetness_rule,

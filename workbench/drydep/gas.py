@@ -10,7 +10,10 @@ A scheme is a module with
 * ``NAME`` (str), ``REFERENCE`` (str);
 * ``PATHS``: tuple of the component names it returns besides ``"rc"``;
 * ``surface_resistance(gas, state) -> dict`` of arrays: ``"rc"`` [s m-1] and each
-  name of ``PATHS``, where ``state`` is a :class:`CanopyState`.
+  name of ``PATHS``, where ``state`` is a :class:`CanopyState`;
+* optionally ``surface_resistances(gases, state) -> {gas: dict}``, the same for
+  several gases at once (sharing the work that does not depend on the gas);
+  :func:`surface_resistances` falls back to one call per gas.
 
 Schemes are registered in :data:`SCHEMES`; a second one (for example Zhang et al.
 2003) is a new module plus one line here.  NH3 is deposition only: no scheme
@@ -79,6 +82,26 @@ def get_scheme(name: str):
         return importlib.import_module(SCHEMES[name])
     except KeyError:
         raise ValueError(f"unknown gas scheme {name!r}; known: {', '.join(SCHEMES)}") from None
+
+
+def surface_resistances(scheme, gases, state) -> dict:
+    """Rc and its paths of several gases from a scheme module [s m-1].
+
+    Parameters
+    ----------
+    scheme : module
+        A surface-resistance scheme (see the module docstring).
+    gases : sequence of str
+    state : CanopyState
+
+    Returns
+    -------
+    dict
+        gas -> the dict of ``scheme.surface_resistance(gas, state)``.
+    """
+    if hasattr(scheme, "surface_resistances"):
+        return scheme.surface_resistances(tuple(gases), state)
+    return {g: scheme.surface_resistance(g, state) for g in gases}
 
 
 def schmidt_number(gas: str, temperature, pressure):

@@ -22,6 +22,8 @@ Seinfeld and Pandis (2006), Atmospheric Chemistry and Physics, 2nd ed., Eqs. (9.
 """
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 import xarray as xr
 
@@ -48,6 +50,10 @@ GERBER = {
 #: particles without bound as RH -> 1 (common practice; cf. the RH cap of 0.99 in
 #: many aerosol models, from memory).
 GROWTH_RH_MAX = 0.99
+#: Least argument of the exponential of the slip correction in the fast path [-]
+#: (numerical device): below it 0.4 exp(x) < 1e-17 is lost in 1.257 + 0.4 exp(x), so
+#: C_c is the same to the last bit, and exp avoids its slow subnormal range.
+_SLIP_EXP_MIN = -40.0
 #: Metres per centimetre (Gerber's radii are in cm) and metres per millimetre (A).
 M_PER_CM = 1e-2
 M_PER_MM = 1e-3
@@ -182,12 +188,18 @@ def wet_density(dry_diameter, wet_diameter_, dry_density):
 
 
 def _luc_values(land_use, seasonal_category, receptor_dim):
-    """A [m] (NaN: smooth surface), alpha and gamma for receptors and hours."""
-    names = list(ZHANG_LUC)
-    a_tab = np.array([ZHANG_LUC[n][1] for n in names]) * M_PER_MM
-    alpha = np.array([ZHANG_LUC[n][2] for n in names])
-    gamma = np.array([ZHANG_LUC[n][3] for n in names])
-    smooth = np.isnan(a_tab[:, 0])
+    """A [m] (NaN: smooth surface), alpha [-], gamma [-] and the smooth mask by receptor and hour.
+
+    Parameters
+    ----------
+    land_use : str or sequence of str
+        Our classes.
+    seasonal_category : array_like
+        1-5 (NaN unknown). [-]
+    receptor_dim : str
+        Dimension of `land_use` when `seasonal_category` is a DataArray.
+    """
+    a_tab, alpha, gamma, smooth = _luc_table()
     cat = seasonal_category
     col = where(np.isfinite(cat), cat, 1.0) - 1.0
     if is_xarray(cat):
@@ -205,13 +217,27 @@ def _luc_values(land_use, seasonal_category, receptor_dim):
     return where(np.isfinite(cat), a_tab[r, c], np.nan), alpha[r], gamma[r], smooth[r]
 
 
+#: Row of each class in :data:`ZHANG_LUC`.
+_ROW = {n: i for i, n in enumerate(ZHANG_LUC)}
+
+
 def _rows(land_use):
-    """Row of :data:`ZHANG_LUC` for each of our class names (any array shape)."""
-    order = {n: i for i, n in enumerate(ZHANG_LUC)}
+    """Row of :data:`ZHANG_LUC` for each of our class names (any array shape).
+
+    Parameters
+    ----------
+    land_use : str or array_like of str
+        Our land-use classes.
+
+    Returns
+    -------
+    rows : int or numpy.ndarray of int
+        Same shape as `land_use`. [-]
+    """
     if isinstance(land_use, str):
-        return order[land_use]
+        return _ROW[land_use]
     names = np.asarray(land_use, dtype=object)
-    return np.vectorize(lambda n: order[str(n)], otypes=[int])(names)
+    return np.array([_ROW[str(n)] for n in names.ravel()], dtype=int).reshape(names.shape)
 
 
 def surface_resistance(diameter, density, ustar, temperature, pressure, land_use,
@@ -320,8 +346,17 @@ def lognormal_nodes(mmd, gsd, n):
     >>> bool(np.allclose(d, 1e-6)), round(float(w.sum()), 12)
     (True, 1.0)
     """
-    x, w = np.polynomial.hermite.hermgauss(n)
+    x, w = _hermgauss(int(n))
     return mmd * np.exp(np.sqrt(2.0) * np.log(gsd) * x), w / np.sqrt(np.pi)
+
+
+@functools.lru_cache(maxsize=16)
+def _hermgauss(n):
+    """Gauss-Hermite abscissas [-] and weights [-] of order `n` (cached, read-only)."""
+    x, w = np.polynomial.hermite.hermgauss(n)
+    x.flags.writeable = False
+    w.flags.writeable = False
+    return x, w
 
 
 def mass_weighted_velocity(mode, relative_humidity, ustar, ra, temperature, pressure, land_use,
@@ -331,9 +366,21 @@ def mass_weighted_velocity(mode, relative_humidity, ustar, ra, temperature, pres
     Parameters
     ----------
     mode : workbench.drydep.options.LogNormalMode
-        Mass median dry diameter, geometric sd, dry density, growth law.
-    relative_humidity, ustar, ra, temperature, pressure, land_use, seasonal_category, wet
-        As in :func:`particle_deposition_velocity`.
+        Mass median dry diameter [m], geometric sd [-], dry density [kg m-3],
+        growth law.
+    relative_humidity : array_like
+        [1]
+    ustar : array_like
+        [m s-1]
+    ra : array_like
+        Aerodynamic resistance. [s m-1]
+    temperature, pressure : array_like
+        [K], [Pa]
+    land_use : str or sequence of str
+    seasonal_category : array_like
+        1-5. [-]
+    wet : array_like
+        [0/1]
     nodes : int
         Gauss-Hermite nodes.
     receptor_dim : str
@@ -348,12 +395,272 @@ def mass_weighted_velocity(mode, relative_humidity, ustar, ra, temperature, pres
     .. math:: \\bar V_d = \\int V_d(d_p)\\,\\frac{dM}{d\\ln d_p}\\,d\\ln d_p \\Big/ M
               \\approx \\sum_i w_i V_d(d_i)
 
-    A Python loop over the few nodes (not over hours); each step is vectorized.
+    Plain numpy input goes through :func:`mass_weighted_velocities` (the same
+    equations, arranged for speed); xarray or dask input sums
+    :func:`particle_deposition_velocity` node by node.
     """
-    diams, weights = lognormal_nodes(mode.mmd, mode.gsd, nodes)
-    total = 0.0
-    for d, w in zip(diams, weights):
-        total = total + w * particle_deposition_velocity(
-            d, mode.density, relative_humidity, ustar, ra, temperature, pressure, land_use,
-            seasonal_category, wet, mode.growth, receptor_dim)
-    return total
+    return mass_weighted_velocities((mode,), relative_humidity, ustar, ra, temperature, pressure,
+                                    land_use, seasonal_category, wet, nodes, receptor_dim)[0]
+
+
+def _is_numpy(*args) -> bool:
+    """True when no argument is an xarray object or a dask (or other lazy) array."""
+    return not is_xarray(*args) and not any(hasattr(a, "dask") or hasattr(a, "chunks")
+                                            for a in args)
+
+
+def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, pressure,
+                             land_use, seasonal_category, wet=0.0, nodes=12,
+                             receptor_dim="receptor"):
+    """Mass-weighted Vd of several log-normal modes over the same surfaces [m s-1].
+
+    Parameters
+    ----------
+    modes : sequence of workbench.drydep.options.LogNormalMode
+        Mass median dry diameter [m], geometric sd [-], dry density [kg m-3] and
+        growth law of each mode.
+    relative_humidity, ustar, ra, temperature, pressure, land_use, seasonal_category, wet
+        As in :func:`mass_weighted_velocity`: [1], [m s-1], [s m-1], [K], [Pa],
+        class names, [-] (1-5), [0/1].
+    nodes : int
+        Gauss-Hermite nodes per mode.
+    receptor_dim : str
+        Name of the receptor dimension (xarray input).
+
+    Returns
+    -------
+    vd : list of array_like
+        Mass-weighted Vd of each mode, in the order of `modes`. [m s-1]
+
+    Notes
+    -----
+    For plain numpy input the Zhang et al. (2001) equations of
+    :func:`particle_deposition_velocity` are evaluated once for all nodes, with the
+    work shared where the inputs allow it (see :class:`_ZhangSurface`); the result
+    equals the node-by-node sum to rounding (tests/drydep/test_drydep_particles.py).
+    xarray and dask input take the node-by-node sum itself.
+    """
+    args = (relative_humidity, ustar, ra, temperature, pressure, seasonal_category, wet)
+    if not _is_numpy(*args):
+        out = []
+        for mode in modes:
+            diams, weights = lognormal_nodes(mode.mmd, mode.gsd, nodes)
+            total = 0.0
+            for d, w in zip(diams, weights):
+                total = total + w * particle_deposition_velocity(
+                    d, mode.density, relative_humidity, ustar, ra, temperature, pressure,
+                    land_use, seasonal_category, wet, mode.growth, receptor_dim)
+            out.append(total)
+        return out
+    surface = _ZhangSurface(relative_humidity, ustar, ra, temperature, pressure, land_use,
+                            seasonal_category, wet)
+    return [surface.mass_weighted(mode, nodes) for mode in modes]
+
+
+class _ZhangSurface:
+    """The mode-independent part of Zhang et al. (2001) for numpy input.
+
+    Built once per call of :func:`mass_weighted_velocities`; holds, each with the
+    least shape it needs (so that what depends only on the air is not repeated per
+    receptor):
+
+    * air: dynamic viscosity mu [Pa s], kinematic viscosity nu [m2 s-1], mean free
+      path lambda [m] (shape of temperature and pressure);
+    * log10 of the relative humidity clipped as in :func:`wet_diameter` [-];
+    * the land-use values -gamma [-] and alpha [-] (shape of `land_use`);
+    * ``st_per_vg``: St / v_g [s m-1], u*/(g A) over vegetation and u*^2/nu over
+      smooth surfaces (Zhang et al. 2001, Eq. 6);
+    * ``ein_per_d2``: E_IN / d_p^2 [m-2], 1/(2 A^2), 0 over smooth surfaces (Eq. 7);
+    * ``sqrt_st_per_vg_rebound``: (St / v_g)^1/2 [s1/2 m-1/2] where the rebound
+      factor R_1 applies, 0 where the surface is wet or open water (R_1 = 1);
+    * ``eps_ustar``: epsilon_0 u* [m s-1];
+    * ``ra``: R_a [s m-1], NaN where the wetness or the seasonal category is unknown
+      (which makes V_d NaN there, as in :func:`surface_resistance`);
+    * work arrays reused by every node and mode.
+
+    Parameters
+    ----------
+    relative_humidity : array_like
+        [1]
+    ustar : array_like
+        [m s-1]
+    ra : array_like
+        [s m-1]
+    temperature, pressure : array_like
+        [K], [Pa]
+    land_use : str or array_like of str
+    seasonal_category : array_like
+        1-5 (NaN unknown). [-]
+    wet : array_like
+        [0/1] (NaN unknown)
+    """
+
+    def __init__(self, relative_humidity, ustar, ra, temperature, pressure, land_use,
+                 seasonal_category, wet):
+        f = lambda x: np.asarray(x, dtype=float)  # noqa: E731
+        rh, us, ra, t, p = f(relative_humidity), f(ustar), f(ra), f(temperature), f(pressure)
+        cat, wet = f(seasonal_category), f(wet)
+        rows = np.asarray(_rows(land_use))
+        self.shape = np.broadcast_shapes(rh.shape, us.shape, ra.shape, t.shape, p.shape,
+                                         cat.shape, wet.shape, rows.shape)
+        self.air_shape = np.broadcast_shapes(rh.shape, t.shape, p.shape)
+        self.nan_rh = np.where(np.isnan(rh), np.nan, 0.0)
+        self.log10_rh = np.log10(np.clip(rh, np.finfo(float).tiny, GROWTH_RH_MAX))
+        mu = dynamic_viscosity(t)
+        nu = kinematic_viscosity(t, p, viscosity=mu)
+        free_path = mean_free_path(t, p, viscosity=mu)
+        self.two_free_path = 2.0 * free_path                      # [m]
+        self.slip_exp_per_d = -SLIP_C / (2.0 * free_path)         # [m-1]
+        self.vg_per_rho_d2_cc = GRAVITY / (18.0 * mu)             # [m-1 s-1 kg-1 m3]
+        self.sc_per_d_over_cc = 3.0 * np.pi * mu * nu / (BOLTZMANN * t)  # [m-1]
+        a_tab, alpha, gamma, smooth = _luc_table()
+        self.neg_gamma, self.alpha = -gamma[rows], alpha[rows]
+        smooth = smooth[rows]
+        finite = np.isfinite(cat)
+        col = (np.where(finite, cat, 1.0) - 1.0).astype(int)
+        a = np.where(finite, a_tab[rows, col], np.nan)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            self.st_per_vg = np.where(smooth, us * us / nu, us / (GRAVITY * a))
+            self.ein_per_d2 = np.where(smooth, 0.0, 0.5 / (a * a))
+        rebound = np.where((wet > 0) | (rows == _ROW["water"]), 0.0, 1.0)
+        self.sqrt_st_per_vg_rebound = np.sqrt(self.st_per_vg * rebound)
+        self.eps_ustar = EPSILON_0 * us
+        self.ra = ra + np.where(np.isnan(wet) | np.isnan(cat), np.nan, 0.0)
+        self._air_work = [np.empty(self.air_shape) for _ in range(6)]
+        self._work = [np.empty(self.shape) for _ in range(3)]
+
+    def node(self, dry_diameter, dry_density, growth):
+        """Grown diameter, settling and Brownian terms of one dry diameter.
+
+        Parameters
+        ----------
+        dry_diameter : float
+            [m]
+        dry_density : float
+            [kg m-3]
+        growth : str
+            Growth law (see :func:`wet_diameter`).
+
+        Returns
+        -------
+        vg : numpy.ndarray
+            Settling velocity v_g, shape of the air [m s-1].
+        log_sc : numpy.ndarray
+            ln of the particle's Schmidt number nu / D_B [-].
+        d2 : numpy.ndarray
+            Square of the grown diameter [m2].
+
+        The three arrays are work arrays, overwritten by the next call.
+
+        Notes
+        -----
+        Gerber (1985) growth as :func:`wet_diameter`, density as :func:`wet_density`,
+        C_c, v_g and D_B as :func:`slip_correction`, :func:`settling_velocity` and
+        :func:`brownian_diffusivity`, with the factors that depend only on the air
+        taken out: exp(-1.1 d/(2 lambda)), v_g = rho_p d^2 C_c g/(18 mu) and
+        Sc = nu/D_B = (d/C_c) 3 pi mu nu/(k_B T).
+        """
+        dw, d2, rho, cc, log_sc, _ = self._air_work
+        if growth == "none":
+            np.add(self.nan_rh, dry_diameter, out=dw)  # NaN where RH is, as wet_diameter
+        else:
+            c1, c2, c3, c4 = GERBER[growth]
+            rd = dry_diameter / 2.0 / M_PER_CM  # dry radius [cm]
+            np.subtract(c3 * rd ** c4, self.log10_rh, out=dw)
+            np.divide(c1 * rd ** c2, dw, out=dw)
+            dw += rd ** 3
+            np.cbrt(dw, out=dw)  # wet radius [cm]
+            dw *= 2.0 * M_PER_CM
+        np.multiply(dw, dw, out=d2)
+        np.multiply(d2, dw, out=rho)
+        # density: water plus the dry core's excess times its volume fraction
+        np.divide((dry_density - WATER_DENSITY) * dry_diameter ** 3, rho, out=rho)
+        rho += WATER_DENSITY
+        np.multiply(dw, self.slip_exp_per_d, out=cc)
+        np.maximum(cc, _SLIP_EXP_MIN, out=cc)  # C_c unchanged; exp kept off subnormals
+        np.exp(cc, out=cc)
+        cc *= SLIP_B
+        cc += SLIP_A
+        np.divide(self.two_free_path, dw, out=log_sc)  # Knudsen number 2 lambda / d
+        cc *= log_sc
+        cc += 1.0
+        np.divide(dw, cc, out=log_sc)
+        log_sc *= self.sc_per_d_over_cc
+        np.log(log_sc, out=log_sc)
+        vg = rho
+        vg *= d2
+        vg *= cc
+        vg *= self.vg_per_rho_d2_cc
+        return vg, log_sc, d2
+
+    def mass_weighted(self, mode, nodes):
+        """Mass-weighted V_d of one mode [m s-1] (see :func:`mass_weighted_velocity`).
+
+        Parameters
+        ----------
+        mode : workbench.drydep.options.LogNormalMode
+        nodes : int
+
+        Returns
+        -------
+        vd : numpy.ndarray or numpy.float64
+            Shape of the broadcast inputs. [m s-1]
+
+        Notes
+        -----
+        Per node, on the full (site, receptor, time) shape, Zhang et al. (2001)
+        Eqs. (1), (5)-(8): E_B = exp(-gamma ln Sc), E_IM = (St/(alpha + St))^2,
+        E_IN = d^2/(2 A^2), 1/R_1 = exp(St^1/2) where there is rebound (else 1), and
+        R_s = (1/R_1) / (epsilon_0 u* (E_B + E_IM + E_IN)); the sum over the nodes of
+        w (v_g + 1/(R_a + R_s)).  A loop over the few nodes, each step vectorized
+        over sites, receptors and hours, in work arrays that stay in the processor's
+        cache (one pass over all nodes at once was two times slower).
+        """
+        diams, weights = lognormal_nodes(mode.mmd, mode.gsd, nodes)
+        e, st, x = self._work
+        total = np.zeros(self.shape)
+        vg_sum = np.zeros(self.air_shape)
+        sqrt_vg = self._air_work[5]
+        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+            for d, w in zip(diams, weights):
+                vg, log_sc, d2 = self.node(d, mode.density, mode.growth)
+                np.multiply(self.neg_gamma, log_sc, out=e)
+                np.exp(e, out=e)                                # E_B
+                np.multiply(vg, self.st_per_vg, out=st)         # St
+                np.add(self.alpha, st, out=x)
+                np.divide(st, x, out=x)
+                np.multiply(x, x, out=x)                        # E_IM
+                e += x
+                np.multiply(d2, self.ein_per_d2, out=x)         # E_IN
+                e += x
+                e *= self.eps_ustar                             # epsilon_0 u* E
+                np.sqrt(vg, out=sqrt_vg)
+                np.multiply(sqrt_vg, self.sqrt_st_per_vg_rebound, out=x)
+                np.exp(x, out=x)                                # 1 / R_1
+                x /= e                                          # R_s
+                x += self.ra
+                np.divide(w, x, out=x)                          # w / (R_a + R_s)
+                total += x
+                np.multiply(vg, w, out=sqrt_vg)
+                vg_sum += sqrt_vg                               # sum of w v_g
+            total += vg_sum
+        return total[()] if total.ndim == 0 else total
+
+
+def _luc_table():
+    """Columns of :data:`ZHANG_LUC` as arrays by row.
+
+    Returns
+    -------
+    a : numpy.ndarray
+        A by row and seasonal category, shape (rows, 5), NaN on smooth surfaces. [m]
+    alpha, gamma : numpy.ndarray
+        [-]
+    smooth : numpy.ndarray of bool
+        No collector radius A.
+    """
+    names = list(ZHANG_LUC)
+    a_tab = np.array([ZHANG_LUC[n][1] for n in names]) * M_PER_MM
+    alpha = np.array([ZHANG_LUC[n][2] for n in names])
+    gamma = np.array([ZHANG_LUC[n][3] for n in names])
+    return a_tab, alpha, gamma, np.isnan(a_tab[:, 0])

@@ -56,7 +56,10 @@ def category_from_month(month, latitude):
     table = np.array(MONTH_CATEGORY_NORTH, dtype=float)
     south = latitude < 0
     m_local = where(south, (month - 1 + HEMISPHERE_SHIFT) % MONTHS_PER_YEAR, month - 1)
-    if isinstance(m_local, xr.DataArray):
+    if isinstance(m_local, xr.DataArray) and m_local.chunks is None:
+        cat = m_local.copy(data=table[m_local.values.astype(int)])
+        cat.attrs = {}
+    elif isinstance(m_local, xr.DataArray):
         cat = xr.apply_ufunc(lambda i: table[i], m_local.astype(int), dask="parallelized",
                              output_dtypes=[float])
     else:
@@ -84,11 +87,112 @@ def autumn_frost_seen(time, latitude, temperature):
         north, Mar-May in the south) lies within one calendar year, so the count of
         frost hours restarts each year.
     """
-    base = category_from_month(time.dt.month, latitude)
+    month, year = _month_and_year(time)
+    base = category_from_month(month, latitude)
     autumn = base == AUTUMN
     frost = (temperature < ZERO_CELSIUS) & autumn
-    seen = frost.astype(float).groupby(time.dt.year).cumsum("time") > 0
+    if frost.chunks is None and year is not None:
+        seen = frost.copy(data=_seen_by_year(frost.values, frost.get_axis_num("time"),
+                                             year.values))
+    else:
+        seen = frost.astype(float).groupby(time.dt.year).cumsum("time") > 0
     return (seen & autumn).drop_vars("year", errors="ignore")
+
+
+def autumn_frost_seen_array(base, temperature, year, axis=-1):
+    """:func:`autumn_frost_seen` on numpy arrays of the whole record.
+
+    Parameters
+    ----------
+    base : numpy.ndarray
+        :func:`category_from_month` of each hour (not NaN where the temperature is). [-]
+    temperature : numpy.ndarray
+        [K]
+    year : numpy.ndarray of int
+        Calendar year of each hour, along `axis` (broadcasts). [year]
+    axis : int
+        The time axis.
+
+    Returns
+    -------
+    seen : numpy.ndarray of bool
+        True from the first frost (temperature below 0 degC) of each autumn on,
+        within the autumn months.
+    """
+    autumn = base == AUTUMN
+    frost = (temperature < ZERO_CELSIUS) & autumn
+    years = np.moveaxis(np.broadcast_to(year, frost.shape), axis, -1).reshape(-1, frost.shape[axis])
+    if not (years == years[:1]).all():
+        raise ValueError("year must vary along the time axis only")
+    return _seen_by_year(frost, axis, years[0]) & autumn
+
+
+def calendar_month(times):
+    """Calendar month of datetime64 values [1-12].
+
+    Parameters
+    ----------
+    times : numpy.ndarray of datetime64
+        No NaT.
+
+    Returns
+    -------
+    month : numpy.ndarray of int64
+        1-12, the shape of `times` (as pandas' ``.dt.month``).
+    """
+    return times.astype("datetime64[M]").astype(np.int64) % MONTHS_PER_YEAR + 1
+
+
+def _month_and_year(time):
+    """``time.dt.month`` and ``time.dt.year`` (the latter None when lazy or irregular).
+
+    Parameters
+    ----------
+    time : DataArray of datetime64
+        The hourly axis.
+
+    Returns
+    -------
+    month : DataArray of int
+        1-12.
+    year : DataArray of int or None
+        Calendar year. [year]
+    """
+    t = time.values if time.chunks is None else None
+    if (t is None or time.dims != ("time",) or not np.issubdtype(t.dtype, np.datetime64)
+            or np.isnat(t).any()):
+        return time.dt.month, (None if time.chunks is not None or time.dims != ("time",)
+                               else time.dt.year)
+    coords = {"time": time["time"]} if "time" in time.coords else None
+    month = xr.DataArray(calendar_month(t), dims=("time",), coords=coords, name="month")
+    year = xr.DataArray(t.astype("datetime64[Y]").astype(np.int64) + 1970, dims=("time",),
+                        coords=coords, name="year")
+    return month, year
+
+
+def _seen_by_year(frost, axis, years):
+    """True from the first True of each year on, along `axis` (numpy).
+
+    Parameters
+    ----------
+    frost : numpy.ndarray of bool
+    axis : int
+        The time axis of `frost`.
+    years : numpy.ndarray of int
+        Calendar year of each time step. [year]
+
+    Returns
+    -------
+    seen : numpy.ndarray of bool
+        Shape of `frost`; the running count of True within each year is > 0.
+    """
+    f = np.moveaxis(frost, axis, -1)
+    seen = np.empty(f.shape, dtype=bool)
+    for year in np.unique(years):  # a loop over the few years, not over hours
+        idx = np.flatnonzero(years == year)
+        seen[..., idx] = np.cumsum(f[..., idx], axis=-1) > 0
+    seen = np.moveaxis(seen, -1, axis)
+    return seen
 
 
 def category_from_state(base, frost_seen, temperature, snow_cover=None):

@@ -150,15 +150,59 @@ N_CATEGORIES = 5
 
 
 def _recip(r):
-    """1/r with 1/0 = inf and 1/inf = 0, without warnings."""
+    """1/r with 1/0 = inf and 1/inf = 0, without warnings.
+
+    Parameters
+    ----------
+    r : array_like
+        Resistance, >= 0 or NaN. [s m-1]
+
+    Returns
+    -------
+    g : array_like
+        Conductance. [m s-1]
+    """
+    if isinstance(r, np.ndarray) and r.ndim:
+        out = 1.0 / np.maximum(r, _R_TINY)
+        zero = r == 0
+        if zero.any():
+            out[zero] = np.inf
+        return out
     return where(r == 0, np.inf, 1.0 / np.maximum(r, _R_TINY))
 
 
+def _nan_where(*inputs):
+    """NaN wherever one of `inputs` is NaN, else 0 (to be added) [same units as the sum].
+
+    Parameters
+    ----------
+    *inputs : array_like
+
+    Returns
+    -------
+    mask : array_like
+        0.0 or NaN, broadcast over the inputs.
+    """
+    bad = np.isnan(inputs[0])
+    for a in inputs[1:]:
+        bad = bad | np.isnan(a)
+    return where(bad, np.nan, 0.0)
+
+
 def _keep_nan(x, *inputs):
-    """x, but NaN wherever one of `inputs` is NaN."""
-    for a in inputs:
-        x = x + where(np.isnan(a), np.nan, 0.0)
-    return x
+    """x, but NaN wherever one of `inputs` is NaN (x + 0 elsewhere).
+
+    Parameters
+    ----------
+    x : array_like
+    *inputs : array_like
+
+    Returns
+    -------
+    array_like
+        Units of `x`.
+    """
+    return x + _nan_where(*inputs)
 
 
 def table_values(land_use, seasonal_category, receptor_dim="receptor"):
@@ -196,17 +240,31 @@ def table_values(land_use, seasonal_category, receptor_dim="receptor"):
         return out
     r = _rows(land_use)
     c = np.asarray(col).astype(int)
+    all_valid = bool(np.all(valid))
     for p in PARAMETERS:
-        out[p] = where(valid, TABLE[p][r, c], np.nan)
+        v = TABLE[p][r, c]
+        out[p] = v if all_valid else where(valid, v, np.nan)  # (the same values)
     return out
 
 
 def _rows(land_use):
-    """Row index of Wesely's table for each of our class names (any array shape)."""
+    """Row index of Wesely's table for each of our class names (any array shape).
+
+    Parameters
+    ----------
+    land_use : str or array_like of str
+        Our classes.
+
+    Returns
+    -------
+    rows : int or numpy.ndarray of int
+        Same shape as `land_use`. [-]
+    """
     if isinstance(land_use, str):
         return WESELY_CLASS[land_use] - 1
     names = np.asarray(land_use, dtype=object)
-    return np.vectorize(lambda n: WESELY_CLASS[str(n)] - 1, otypes=[int])(names)
+    return np.array([WESELY_CLASS[str(n)] - 1 for n in names.ravel()],
+                    dtype=int).reshape(names.shape)
 
 
 def stomatal_resistance(ri, solar_radiation, temperature):
@@ -320,16 +378,50 @@ def wet_upper_canopy_resistance(gas, rlu, henry, reactivity, wet_kind):
     with r_O = 3000 s/m (dew) or 1000 s/m (rain); SO2 takes 100 s/m (dew) and
     50 s/m (rain). Wesely (1989) p. 1296 and Walmsley and Wesely (1996) (from memory).
     """
+    return _wet_upper_canopy(gas, henry, reactivity, _wet_cuticle(rlu, wet_kind))
+
+
+def _wet_cuticle(rlu, wet_kind):
+    """The parts of :func:`wet_upper_canopy_resistance` common to all gases.
+
+    Parameters
+    ----------
+    rlu : array_like
+        Table value r_lu. [s m-1]
+    wet_kind : array_like
+        1 dew, 2 rain. [-]
+
+    Returns
+    -------
+    tuple
+        dew (bool), the wet cuticle's conductance 1/(3 r_lu) [m s-1], the wet
+        upper-canopy resistance of O3 [s m-1], and the mask of no canopy (r_lu inf).
+    """
     dew = wet_kind == 1
     g_cut = _recip(WET_CUTICLE_FACTOR * rlu)
     r_o = _recip(1.0 / where(dew, RLU_O3_DEW, RLU_O3_RAIN) + g_cut)
+    return dew, g_cut, r_o, np.isinf(rlu)
+
+
+def _wet_upper_canopy(gas, henry, reactivity, cuticle):
+    """Wet upper-canopy resistance of `gas` from :func:`_wet_cuticle` [s m-1].
+
+    Parameters
+    ----------
+    gas : str
+    henry, reactivity : float
+        H* [M atm-1], f0 [-]
+    cuticle : tuple
+        Output of :func:`_wet_cuticle`.
+    """
+    dew, g_cut, r_o, no_canopy = cuticle
     if gas == "SO2":
         r = where(dew, RLU_SO2_DEW, RLU_SO2_RAIN) + 0.0 * r_o
     elif gas == "O3":
         r = r_o
     else:
         r = _recip(g_cut + HENRY_SCALE_WET * henry + reactivity * _recip(r_o))
-    return where(np.isinf(rlu), np.inf, r)
+    return where(no_canopy, np.inf, r)
 
 
 def exposed_surface_resistance(r_s, r_o, henry, reactivity):
@@ -342,9 +434,33 @@ def exposed_surface_resistance(r_s, r_o, henry, reactivity):
     henry, reactivity : float
         H* [M atm-1], f0 [-]
     """
-    r_s = np.maximum(r_s, ZERO_TABLE_RESISTANCE)
-    r_o = np.maximum(r_o, ZERO_TABLE_RESISTANCE)
-    return _recip(HENRY_SCALE * henry * _recip(r_s) + reactivity * _recip(r_o))
+    return _exposed(henry, reactivity, _exposed_conductances(r_s, r_o))
+
+
+def _exposed_conductances(r_s, r_o):
+    """The SO2 and O3 conductances of an exposed surface, 1/max(r, 1 s/m) [m s-1].
+
+    Parameters
+    ----------
+    r_s, r_o : array_like
+        Table values. [s m-1]
+    """
+    return (_recip(np.maximum(r_s, ZERO_TABLE_RESISTANCE)),
+            _recip(np.maximum(r_o, ZERO_TABLE_RESISTANCE)))
+
+
+def _exposed(henry, reactivity, conductances):
+    """Resistance [1e-5 H* g_S + f0 g_O]^-1 of an exposed surface [s m-1].
+
+    Parameters
+    ----------
+    henry, reactivity : float
+        H* [M atm-1], f0 [-]
+    conductances : tuple
+        g_S, g_O from :func:`_exposed_conductances`. [m s-1]
+    """
+    g_s, g_o = conductances
+    return _recip(HENRY_SCALE * henry * g_s + reactivity * g_o)
 
 
 def cold_increment(temperature):
@@ -389,32 +505,65 @@ def surface_resistance(gas: str, state) -> dict:
     Equation in the module docstring; the low-temperature increment is added to
     the species' r_lu, r_cl and r_gs.
     """
-    sp = _species(gas)
-    if sp.henry_eff is None or sp.reactivity is None:
-        raise ValueError(f"{gas}: no effective Henry constant or reactivity in the species table")
-    h, f0 = sp.henry_eff, sp.reactivity
+    return surface_resistances((gas,), state)[gas]
+
+
+def surface_resistances(gases, state) -> dict:
+    """:func:`surface_resistance` of several gases over the same canopy [s m-1].
+
+    The parts that do not depend on the gas (table values, the stomatal response,
+    r_dc, the low-temperature increment, the wet cuticle, the exposed surfaces'
+    SO2 and O3 conductances, the NaN masks) are computed once.
+
+    Parameters
+    ----------
+    gases : sequence of str
+    state : workbench.drydep.gas.CanopyState
+
+    Returns
+    -------
+    dict
+        gas -> the dict of :func:`surface_resistance` (resistances [s m-1]).
+    """
+    species = {}
+    for gas in gases:
+        sp = _species(gas)
+        if sp.henry_eff is None or sp.reactivity is None:
+            raise ValueError(f"{gas}: no effective Henry constant or reactivity in the species "
+                             "table")
+        species[gas] = (sp.henry_eff, sp.reactivity)
     t = state.temperature
+    kind = state.wet_kind
     tab = table_values(state.land_use, state.seasonal_category, state.receptor_dim)
     cold = cold_increment(t)
-    rs = stomatal_resistance(tab["ri"], state.solar_radiation, t) * diffusivity_ratio(gas)
-    rm = mesophyll_resistance(h, f0)
-    rlu_dry = upper_canopy_resistance(tab["rlu"], h, f0)
-    rlu_wet = wet_upper_canopy_resistance(gas, tab["rlu"], h, f0, state.wet_kind)
-    kind = state.wet_kind
-    rlu = where(kind > 0, rlu_wet, rlu_dry) + cold
-    rlu = _keep_nan(rlu, kind)
+    rs_water = stomatal_resistance(tab["ri"], state.solar_radiation, t)
+    cuticle = _wet_cuticle(tab["rlu"], kind)
+    wet = kind > 0
+    nan_kind = _nan_where(kind)
     rdc = convection_resistance(state.solar_radiation, state.terrain_slope)
-    rcl = exposed_surface_resistance(tab["rclS"], tab["rclO"], h, f0) + cold
-    rgs = exposed_surface_resistance(tab["rgsS"], tab["rgsO"], h, f0) + cold
+    g_cl = _exposed_conductances(tab["rclS"], tab["rclO"])
+    g_gs = _exposed_conductances(tab["rgsS"], tab["rgsO"])
     rac = tab["rac"]
-    g = _recip(rs + rm) + _recip(rlu) + _recip(rdc + rcl) + _recip(rac + rgs)
-    rc = _recip(g)
-    floor_used = rc < 0.0  # all False, same shape
-    if gas == "HNO3":
-        floor = nitric_acid_floor(t)
-        floor_used = rc < floor
-        rc = where(floor_used, floor, rc)
-    rc = _keep_nan(rc, t, state.solar_radiation, kind, state.seasonal_category)
-    return {"rc": rc, "stomatal": rs, "mesophyll": rm + 0.0 * t, "upper_canopy": rlu,
-            "convection": rdc, "lower_canopy": rcl, "canopy_transfer": rac + 0.0 * t,
-            "ground": rgs, "floor_used": floor_used}
+    nan_rc = _nan_where(t, state.solar_radiation, kind, state.seasonal_category)
+    out = {}
+    for gas, (h, f0) in species.items():
+        rs = rs_water * diffusivity_ratio(gas)
+        rm = mesophyll_resistance(h, f0)
+        rlu_dry = upper_canopy_resistance(tab["rlu"], h, f0)
+        rlu_wet = _wet_upper_canopy(gas, h, f0, cuticle)
+        rlu = where(wet, rlu_wet, rlu_dry) + cold
+        rlu = rlu + nan_kind
+        rcl = _exposed(h, f0, g_cl) + cold
+        rgs = _exposed(h, f0, g_gs) + cold
+        g = _recip(rs + rm) + _recip(rlu) + _recip(rdc + rcl) + _recip(rac + rgs)
+        rc = _recip(g)
+        floor_used = rc < 0.0  # all False, same shape
+        if gas == "HNO3":
+            floor = nitric_acid_floor(t)
+            floor_used = rc < floor
+            rc = where(floor_used, floor, rc)
+        rc = rc + nan_rc
+        out[gas] = {"rc": rc, "stomatal": rs, "mesophyll": rm + 0.0 * t, "upper_canopy": rlu,
+                    "convection": rdc, "lower_canopy": rcl, "canopy_transfer": rac + 0.0 * t,
+                    "ground": rgs, "floor_used": floor_used}
+    return out

@@ -16,7 +16,7 @@ from ._array import where
 from .stability import psi_h, psi_m
 
 
-def wind_profile_factor(z, z0, inv_obukhov):
+def wind_profile_factor(z, z0, inv_obukhov, log_z_z0=None):
     """The profile integral ln(z/z0) - psi_m(z/L) + psi_m(z0/L) [-].
 
     Parameters
@@ -27,6 +27,8 @@ def wind_profile_factor(z, z0, inv_obukhov):
         Roughness length for momentum. [m]
     inv_obukhov : array_like
         1/L. [m-1]
+    log_z_z0 : array_like, optional
+        ln(z/z0) when the caller has it already (an iteration over 1/L) [-].
 
     Returns
     -------
@@ -38,7 +40,8 @@ def wind_profile_factor(z, z0, inv_obukhov):
     Monin-Obukhov similarity; e.g. Stull (1988), An Introduction to Boundary Layer
     Meteorology, Eq. (9.7.5c).
     """
-    return np.log(z / z0) - psi_m(z * inv_obukhov) + psi_m(z0 * inv_obukhov)
+    log_ratio = np.log(z / z0) if log_z_z0 is None else log_z_z0
+    return log_ratio - psi_m(z * inv_obukhov) + psi_m(z0 * inv_obukhov)
 
 
 def aerodynamic_resistance(z, d, z0, ustar, inv_obukhov=0.0):

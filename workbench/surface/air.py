@@ -70,7 +70,7 @@ def dynamic_viscosity(temperature):
         temperature + SUTHERLAND_S)
 
 
-def kinematic_viscosity(temperature, pressure):
+def kinematic_viscosity(temperature, pressure, viscosity=None):
     """Kinematic viscosity of air nu = mu / rho [m2 s-1].
 
     Parameters
@@ -79,16 +79,20 @@ def kinematic_viscosity(temperature, pressure):
         [K]
     pressure : array_like
         [Pa]
+    viscosity : array_like, optional
+        Dynamic viscosity mu of air when the caller has it already [Pa s];
+        default :func:`dynamic_viscosity` of `temperature`.
 
     Returns
     -------
     nu : array_like
         [m2 s-1]
     """
-    return dynamic_viscosity(temperature) / air_density(temperature, pressure)
+    mu = dynamic_viscosity(temperature) if viscosity is None else viscosity
+    return mu / air_density(temperature, pressure)
 
 
-def mean_free_path(temperature, pressure):
+def mean_free_path(temperature, pressure, viscosity=None):
     """Mean free path of air molecules [m].
 
     Parameters
@@ -97,6 +101,9 @@ def mean_free_path(temperature, pressure):
         [K]
     pressure : array_like
         [Pa]
+    viscosity : array_like, optional
+        Dynamic viscosity mu of air when the caller has it already [Pa s];
+        default :func:`dynamic_viscosity` of `temperature`.
 
     Returns
     -------
@@ -112,7 +119,7 @@ def mean_free_path(temperature, pressure):
     Seinfeld, J. H. and Pandis, S. N. (2006), Atmospheric Chemistry and Physics,
     2nd ed., Wiley, Eq. (9.6) (0.0651 um at 298 K and 1 atm with their mu).
     """
-    mu = dynamic_viscosity(temperature)
+    mu = dynamic_viscosity(temperature) if viscosity is None else viscosity
     return 2.0 * mu / (pressure * np.sqrt(8.0 * MOLAR_MASS_DRY_AIR /
                                           (np.pi * GAS_CONSTANT * temperature)))
 

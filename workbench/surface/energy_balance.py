@@ -259,10 +259,17 @@ def ustar_unstable(wind_speed, z, z0, heat_flux, temperature, air_density, itera
     lo = np.log(u_n)
     hi = lo + np.log(UNSTABLE_BRACKET_FACTOR)
 
+    # the parts of inverse_obukhov and wind_profile_factor that do not change with u*,
+    # once (the same operations in the same order: the same values)
+    log_z_z0 = np.log(z / z0)
+    flux_term = -VON_KARMAN * GRAVITY * heat_flux
+    air_term = air_density * CP_DRY_AIR * temperature
+    target = VON_KARMAN * wind_speed
+
     def excess(log_u):
         u = np.exp(log_u)
-        inv_l = inverse_obukhov(u, heat_flux, temperature, air_density)
-        return u * wind_profile_factor(z, z0, inv_l) - VON_KARMAN * wind_speed
+        inv_l = flux_term / (air_term * u ** 3)  # inverse_obukhov
+        return u * wind_profile_factor(z, z0, inv_l, log_z_z0) - target
 
     at_top = excess(hi) < 0.0
     for _ in range(iterations):

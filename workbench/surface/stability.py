@@ -146,6 +146,8 @@ def psi_m(zeta):
     psi_m : array_like
         [-]; NaN where zeta is NaN.
     """
+    if isinstance(zeta, np.ndarray) and zeta.ndim:
+        return _by_sign(zeta, psi_m_paulson, psi_m_beljaars_holtslag)
     neg = np.minimum(zeta, 0.0)
     pos = np.maximum(zeta, 0.0)
     return where(zeta < 0.0, psi_m_paulson(neg), psi_m_beljaars_holtslag(pos))
@@ -166,6 +168,35 @@ def psi_h(zeta):
     psi_h : array_like
         [-]; NaN where zeta is NaN.
     """
+    if isinstance(zeta, np.ndarray) and zeta.ndim:
+        return _by_sign(zeta, psi_h_paulson, psi_h_beljaars_holtslag)
     neg = np.minimum(zeta, 0.0)
     pos = np.maximum(zeta, 0.0)
     return where(zeta < 0.0, psi_h_paulson(neg), psi_h_beljaars_holtslag(pos))
+
+
+def _by_sign(zeta, unstable, stable):
+    """``unstable(zeta)`` where zeta < 0, else ``stable(max(zeta, 0))``, for a numpy array [-].
+
+    Each branch is evaluated only where it is used (the unstable one on the whole
+    array, which is cheaper than selecting); the values are those of the
+    ``where`` form of :func:`psi_m` and :func:`psi_h`.
+
+    Parameters
+    ----------
+    zeta : numpy.ndarray
+        z/L. [-]
+    unstable, stable : callable
+        The branch functions, zeta [-] -> psi [-].
+
+    Returns
+    -------
+    psi : numpy.ndarray
+        [-]; NaN where zeta is NaN.
+    """
+    neg = zeta < 0.0
+    out = np.asarray(unstable(np.minimum(zeta, 0.0)), dtype=float)
+    if not neg.all():
+        rest = ~neg
+        out[rest] = stable(np.maximum(zeta[rest], 0.0))
+    return out
