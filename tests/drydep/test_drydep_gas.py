@@ -61,3 +61,17 @@ def test_vd_and_interface():
     assert mod.NAME == "wesely1989" and "stomatal" in mod.PATHS
     with pytest.raises(ValueError, match="known"):
         gas.get_scheme("no_such_scheme")
+
+
+def test_rb_of_several_gases_equal_one_by_one():
+    rng = np.random.default_rng(3)
+    ustar = rng.uniform(0.05, 1.0, (2, 3, 50))
+    temp = rng.uniform(250.0, 310.0, (2, 1, 50))
+    pres = rng.uniform(7e4, 1.03e5, (2, 1, 50))
+    temp[0, 0, 7] = np.nan
+    gases = ("SO2", "HNO3", "NH3", "NO2", "O3")
+    together = gas.quasi_laminar_resistances(gases, ustar, temp, pres)
+    assert list(together) == list(gases)
+    for g in gases:
+        np.testing.assert_array_equal(together[g], gas.quasi_laminar_resistance(g, ustar, temp, pres))
+    assert np.isnan(together["SO2"][0, :, 7]).all()

@@ -32,3 +32,26 @@ def test_time_parts():
     t = np.array(["2021-03-01T06:30"], dtype="datetime64[ns]")
     doy, hour = time_parts(t)
     assert doy[0] == 60 and hour[0] == 6.5
+
+
+def test_time_parts_equal_pandas_calendar():
+    # numpy datetime arithmetic against pandas' day_of_year and floor (leap years,
+    # before 1970, the last nanosecond of a day, a 2-D array, NaT)
+    import pandas as pd
+    rng = np.random.default_rng(1)
+    t = np.datetime64("1899-03-01", "ns") + rng.integers(
+        0, 200 * 365 * 86400 * 10**9, 5000).astype("timedelta64[ns]")
+    t = np.concatenate([t, np.array(["2020-02-29T23:59:59.999999999", "2020-12-31T12:00",
+                                     "1969-12-31T23:30", "2021-01-01T00:00"],
+                                    dtype="datetime64[ns]")])
+    idx = pd.DatetimeIndex(t)
+    expect_doy = np.asarray(idx.day_of_year, dtype=float)
+    expect_hour = np.asarray((idx - idx.floor("D")) / pd.Timedelta(hours=1), dtype=float)
+    doy, hour = time_parts(t.reshape(-1, 2))
+    np.testing.assert_array_equal(doy.ravel(), expect_doy)
+    np.testing.assert_array_equal(hour.ravel(), expect_hour)
+    assert doy[-2, 0] == 60 and doy[-2, 1] == 366 and doy[-1, 1] == 1
+    with_nat = t[:3].copy()
+    with_nat[1] = np.datetime64("NaT")
+    doy, hour = time_parts(with_nat)
+    assert np.isnan(doy[1]) and np.isnan(hour[1]) and doy[0] == expect_doy[0]

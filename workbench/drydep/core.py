@@ -235,13 +235,13 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         cat = _seasons.category_override(month, opt.seasonal_category) + 0.0 * temp
         cat_src = 3.0 + 0.0 * cat
     else:
-        base = _seasons.category_from_month(month, site("latitude")) + 0.0 * temp
+        by_month = _seasons.category_from_month(month, site("latitude"))
+        base = by_month + 0.0 * temp
         if _FROST in block:  # found beforehand on the whole record (dask blocks)
             seen = st(_FROST) > 0.5
         else:  # the whole record is here
             seen = _seasons.autumn_frost_seen_array(
-                _seasons.category_from_month(month, site("latitude")), temp,
-                times.astype("datetime64[Y]").astype(np.int64)[None, None, :])
+                by_month, temp, times.astype("datetime64[Y]").astype(np.int64)[None, None, :])
         cat, cat_src = _seasons.category_from_state(base, seen, temp,
                                                     snow if "snow_cover" in block else None)
     if _PREV in block:  # found beforehand on the whole record (dask blocks)
@@ -259,13 +259,26 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     shape3 = (n_s, n_r, n_t)
 
     # plain Variables here, coordinates once at the end (a DataArray each cost ~2 ms)
+    handed_out = {}  # id -> array given to the output as it is (held, so ids stay unique)
+
+    def own(x, shape):
+        """`x` broadcast to `shape`, as a new array; `x` itself when it is one already.
+
+        An array made in this block (not a view) of the full shape is not copied,
+        unless it was handed to another output variable before.
+        """
+        if (isinstance(x, np.ndarray) and x.shape == shape and x.base is None
+                and x.flags.c_contiguous and x.flags.writeable and id(x) not in handed_out):
+            handed_out[id(x)] = x
+            return x
+        return np.array(np.broadcast_to(x, shape))
+
     def srt(x, units, long_name, **extra):
-        arr = np.array(np.broadcast_to(x, shape3))
-        return xr.Variable(("site", "receptor", "time"), arr,
+        return xr.Variable(("site", "receptor", "time"), own(x, shape3),
                            {"units": units, "long_name": long_name, **extra})
 
     def sto(x, units, long_name, **extra):
-        arr = np.array(np.broadcast_to(x, (n_s, 1, n_t))[:, 0, :])
+        arr = own(x, (n_s, 1, n_t)).reshape(n_s, n_t)
         return xr.Variable(("site", "time"), arr, {"units": units, "long_name": long_name, **extra})
 
     out = {}
@@ -273,8 +286,9 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     state = _gas.CanopyState(land, cat, k_down, temp, kind, site("terrain_slope"), us_r)
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         comps = _gas.surface_resistances(scheme, opt.gases, state)
+        rbs = _gas.quasi_laminar_resistances(opt.gases, us_r, temp, pres)
         for g in opt.gases:
-            rb = _gas.quasi_laminar_resistance(g, us_r, temp, pres)
+            rb = rbs[g]
             comp = comps[g]
             out[f"rb_{g}"] = srt(rb, "s m-1", f"quasi-laminar resistance of {g}")
             out[f"rc_{g}"] = srt(comp["rc"], "s m-1", f"surface resistance of {g} ({scheme.NAME})")

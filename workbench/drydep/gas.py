@@ -157,6 +157,33 @@ def quasi_laminar_resistance(gas: str, ustar, temperature, pressure):
     return RB_PREFACTOR / (VON_KARMAN * ustar) * (sc / PRANDTL_AIR) ** RB_EXPONENT
 
 
+def quasi_laminar_resistances(gases, ustar, temperature, pressure) -> dict:
+    """:func:`quasi_laminar_resistance` of several gases [s m-1].
+
+    The kinematic viscosity of air and 2/(kappa u*) are computed once (the same
+    values as one gas at a time).
+
+    Parameters
+    ----------
+    gases : sequence of str
+    ustar : array_like
+        [m s-1]
+    temperature : array_like
+        [K]
+    pressure : array_like
+        [Pa]
+
+    Returns
+    -------
+    dict
+        gas -> Rb [s m-1].
+    """
+    nu = kinematic_viscosity(temperature, pressure)
+    scale = RB_PREFACTOR / (VON_KARMAN * ustar)
+    return {g: scale * (nu / diffusivity(g, temperature, pressure) / PRANDTL_AIR) ** RB_EXPONENT
+            for g in gases}
+
+
 def deposition_velocity(ra, rb, rc, compensation=None):
     """Dry deposition velocity of a gas Vd = 1 / (Ra + Rb + Rc) [m s-1].
 

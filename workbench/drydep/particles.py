@@ -435,10 +435,13 @@ def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, p
     Notes
     -----
     For plain numpy input the Zhang et al. (2001) equations of
-    :func:`particle_deposition_velocity` are evaluated once for all nodes, with the
-    work shared where the inputs allow it (see :class:`_ZhangSurface`); the result
-    equals the node-by-node sum to rounding (tests/drydep/test_drydep_particles.py).
-    xarray and dask input take the node-by-node sum itself.
+    :func:`particle_deposition_velocity` are rearranged: what does not depend on
+    the mode (air, land-use values, the factors of St, E_IN and R_1) is computed
+    once for all modes, what depends on the particle only (grown diameter and
+    density, C_c, v_g, Sc) once per node on (site, time) without the receptor axis
+    (see :class:`_ZhangSurface`).  The result equals the node-by-node sum to
+    rounding (tests/drydep/test_drydep_particles.py).  xarray and dask input take
+    the node-by-node sum itself.
     """
     args = (relative_humidity, ustar, ra, temperature, pressure, seasonal_category, wet)
     if not _is_numpy(*args):
@@ -461,12 +464,13 @@ class _ZhangSurface:
     """The mode-independent part of Zhang et al. (2001) for numpy input.
 
     Built once per call of :func:`mass_weighted_velocities`; holds, each with the
-    least shape it needs (so that what depends only on the air is not repeated per
-    receptor):
+    least shape it needs (what depends only on the air has the shape of the
+    temperature, pressure and humidity: no receptor axis):
 
-    * air: dynamic viscosity mu [Pa s], kinematic viscosity nu [m2 s-1], mean free
-      path lambda [m] (shape of temperature and pressure);
-    * log10 of the relative humidity clipped as in :func:`wet_diameter` [-];
+    * air factors: 2 lambda [m] and -1.1/(2 lambda) [m-1] of the slip correction,
+      g/(18 mu) [m2 s-1 kg-1] of v_g, 3 pi mu nu/(k_B T) [m-1] of Sc;
+    * log10 of the relative humidity clipped as in :func:`wet_diameter` [-], and 0
+      or NaN (where the humidity is NaN, as :func:`wet_diameter` without growth);
     * the land-use values -gamma [-] and alpha [-] (shape of `land_use`);
     * ``st_per_vg``: St / v_g [s m-1], u*/(g A) over vegetation and u*^2/nu over
       smooth surfaces (Zhang et al. 2001, Eq. 6);
@@ -511,7 +515,7 @@ class _ZhangSurface:
         free_path = mean_free_path(t, p, viscosity=mu)
         self.two_free_path = 2.0 * free_path                      # [m]
         self.slip_exp_per_d = -SLIP_C / (2.0 * free_path)         # [m-1]
-        self.vg_per_rho_d2_cc = GRAVITY / (18.0 * mu)             # [m-1 s-1 kg-1 m3]
+        self.vg_per_rho_d2_cc = GRAVITY / (18.0 * mu)             # [m2 s-1 kg-1]
         self.sc_per_d_over_cc = 3.0 * np.pi * mu * nu / (BOLTZMANN * t)  # [m-1]
         a_tab, alpha, gamma, smooth = _luc_table()
         self.neg_gamma, self.alpha = -gamma[rows], alpha[rows]

@@ -240,11 +240,18 @@ def table_values(land_use, seasonal_category, receptor_dim="receptor"):
         return out
     r = _rows(land_use)
     c = np.asarray(col).astype(int)
+    if np.any((c < -N_CATEGORIES) | (c >= N_CATEGORIES)):  # as TABLE[p][r, c] would
+        raise IndexError(f"seasonal category outside 1-{N_CATEGORIES}")
+    flat_idx = np.asarray(r) * N_CATEGORIES + c % N_CATEGORIES  # one gather per parameter
     all_valid = bool(np.all(valid))
     for p in PARAMETERS:
-        v = TABLE[p][r, c]
+        v = _FLAT_TABLE[p].take(flat_idx)
         out[p] = v if all_valid else where(valid, v, np.nan)  # (the same values)
     return out
+
+
+#: :data:`TABLE` flattened, row-major (type, category).
+_FLAT_TABLE = {p: t.ravel() for p, t in TABLE.items()}
 
 
 def _rows(land_use):

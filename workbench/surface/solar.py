@@ -26,6 +26,8 @@ DEGREES_PER_HOUR = 15.0
 HOURS_PER_DAY = 24.0
 MINUTES_PER_HOUR = 60.0
 SOLAR_NOON_HOUR = 12.0
+#: Nanoseconds per hour.
+NS_PER_HOUR = 3_600_000_000_000
 
 
 def day_angle(day_of_year, utc_hour=SOLAR_NOON_HOUR):
@@ -33,10 +35,25 @@ def day_angle(day_of_year, utc_hour=SOLAR_NOON_HOUR):
     return 2.0 * np.pi * (day_of_year - 1.0 + (utc_hour - SOLAR_NOON_HOUR) / HOURS_PER_DAY) / DAYS_PER_YEAR
 
 
-def _series(coeffs, g):
+def _series(coeffs, g, trig=None):
+    """Fourier series c0 + sum_k (a_k cos k G + b_k sin k G) [units of the coefficients].
+
+    Parameters
+    ----------
+    coeffs : tuple
+        c0, then (a_k, b_k) for k = 1, 2, ...
+    g : array_like
+        Day angle. [rad]
+    trig : dict, optional
+        k -> (cos k G, sin k G), filled and reused (two series of the same G).
+    """
+    trig = {} if trig is None else trig
     out = coeffs[0] + 0.0 * g
     for k, (a, b) in enumerate(coeffs[1:], start=1):
-        out = out + a * np.cos(k * g) + b * np.sin(k * g)
+        if k not in trig:
+            trig[k] = (np.cos(k * g), np.sin(k * g))
+        cos_k, sin_k = trig[k]
+        out = out + a * cos_k + b * sin_k
     return out
 
 
@@ -115,9 +132,12 @@ def solar_elevation_sine(day_of_year, utc_hour, latitude, longitude):
     ----------
     Iqbal (1983), Eqs. (1.5.1) and (1.4.2).
     """
-    delta = declination(day_of_year, utc_hour)
-    solar_time = utc_hour + longitude / DEGREES_PER_HOUR + equation_of_time(
-        day_of_year, utc_hour) / MINUTES_PER_HOUR
+    # declination and equation_of_time, with the day angle and its cos/sin once
+    g = day_angle(day_of_year, utc_hour)
+    trig = {}
+    delta = _series(DECLINATION_COEFFS, g, trig)
+    e_t = _series(EQUATION_OF_TIME_COEFFS, g, trig) * MINUTES_PER_RADIAN
+    solar_time = utc_hour + longitude / DEGREES_PER_HOUR + e_t / MINUTES_PER_HOUR
     omega = np.deg2rad(DEGREES_PER_HOUR * (solar_time - SOLAR_NOON_HOUR))
     phi = np.deg2rad(latitude)
     return np.sin(phi) * np.sin(delta) + np.cos(phi) * np.cos(delta) * np.cos(omega)
@@ -139,8 +159,14 @@ def time_parts(time):
         doy = time.dt.dayofyear.astype(float)
         hour = (time - time.dt.floor("D")) / np.timedelta64(1, "h")
         return doy, hour.astype(float)
-    idx = pd.DatetimeIndex(np.ravel(np.asarray(time, dtype="datetime64[ns]")))
-    shape = np.shape(time)
-    doy = np.asarray(idx.day_of_year, dtype=float).reshape(shape)
-    hour = np.asarray((idx - idx.floor("D")) / pd.Timedelta(hours=1), dtype=float).reshape(shape)
+    t = np.asarray(time, dtype="datetime64[ns]")
+    if np.isnat(t).any():  # pandas gives NaN there
+        idx = pd.DatetimeIndex(np.ravel(t))
+        shape = np.shape(time)
+        doy = np.asarray(idx.day_of_year, dtype=float).reshape(shape)
+        hour = np.asarray((idx - idx.floor("D")) / pd.Timedelta(hours=1), dtype=float).reshape(shape)
+        return doy, hour
+    day = t.astype("datetime64[D]")
+    doy = (day - t.astype("datetime64[Y]")).astype(np.int64).astype(float) + 1.0
+    hour = (t - day).astype(np.int64) / float(NS_PER_HOUR)
     return doy, hour
