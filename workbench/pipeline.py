@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import dataclasses
 import functools
+import hashlib
 import json
 from dataclasses import dataclass, field
 
@@ -49,6 +50,18 @@ def _key(obj) -> str:
     if dataclasses.is_dataclass(obj):
         return repr(obj)
     return json.dumps(obj, sort_keys=True, default=str)
+
+
+def _digest(da: xr.DataArray) -> str:
+    """Digest of a DataArray's values and coordinates (a content key for caches)."""
+    h = hashlib.blake2b(digest_size=16)
+    for name, c in da.coords.items():
+        h.update(str(name).encode())
+        h.update(np.ascontiguousarray(c.values).astype(str if c.dtype == object else c.dtype)
+                 .tobytes())
+    h.update(str(da.dims).encode())
+    h.update(np.ascontiguousarray(da.values).tobytes())
+    return h.hexdigest()
 
 
 @dataclass
@@ -190,7 +203,6 @@ class Study:
         cat = self.catalogue(overrides)
         receptors = list(dict.fromkeys(r for s in cat for r in s.surfaces))
         met = self.inputs.met
-        base = repr(dry_options) + _key(overrides) + str(budget_options.min_slot_hours)
         out = {}
         for sp in dry_species:
             fixed = {sp: fixed_velocity[sp]} if sp in fixed_velocity else {}
@@ -206,8 +218,12 @@ class Study:
                                          budget_options.min_slot_hours, template)
                 return got.get(sp)
 
-            entry = self._cached("dry", f"vel|{sp}|{fixed.get(sp)}|" + (base if not fixed else
-                                                                        _key(overrides)), make)
+            # keyed by the content of the species' Vd: a dry option that leaves it as it
+            # was (a particle size, for the gases) reuses its fill and its dry rows
+            which = (_digest(vd[f"vd_{sp}"]) if not fixed and f"vd_{sp}" in vd else
+                     _key(overrides))
+            entry = self._cached("dry", f"vel|{sp}|{fixed.get(sp)}|{which}|"
+                                 f"{budget_options.min_slot_hours}", make)
             if entry is not None:
                 out[sp] = entry
         return out
