@@ -404,7 +404,17 @@ def mass_weighted_velocity(mode, relative_humidity, ustar, ra, temperature, pres
 
 
 def _is_numpy(*args) -> bool:
-    """True when no argument is an xarray object or a dask (or other lazy) array."""
+    """True when no argument is an xarray object or a dask (or other lazy) array.
+
+    Parameters
+    ----------
+    *args : array_like
+        Inputs of any units.
+
+    Returns
+    -------
+    bool
+    """
     return not is_xarray(*args) and not any(hasattr(a, "dask") or hasattr(a, "chunks")
                                             for a in args)
 

@@ -164,7 +164,8 @@ def time_parts(time):
         idx = pd.DatetimeIndex(np.ravel(t))
         shape = np.shape(time)
         doy = np.asarray(idx.day_of_year, dtype=float).reshape(shape)
-        hour = np.asarray((idx - idx.floor("D")) / pd.Timedelta(hours=1), dtype=float).reshape(shape)
+        hour = np.asarray((idx - idx.floor("D")) / pd.Timedelta(hours=1),
+                          dtype=float).reshape(shape)
         return doy, hour
     day = t.astype("datetime64[D]")
     doy = (day - t.astype("datetime64[Y]")).astype(np.int64).astype(float) + 1.0

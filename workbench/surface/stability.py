@@ -195,8 +195,9 @@ def _by_sign(zeta, unstable, stable):
         [-]; NaN where zeta is NaN.
     """
     neg = zeta < 0.0
+    if neg.all():  # min(zeta, 0) = zeta
+        return np.asarray(unstable(zeta), dtype=float)
     out = np.asarray(unstable(np.minimum(zeta, 0.0)), dtype=float)
-    if not neg.all():
-        rest = ~neg
-        out[rest] = stable(np.maximum(zeta[rest], 0.0))
+    rest = ~neg
+    out[rest] = stable(np.maximum(zeta[rest], 0.0))
     return out
