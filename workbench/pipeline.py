@@ -42,6 +42,13 @@ WET_PERIOD_OPTIONS = ("hydro_start_month", "straddle", "min_gauge_fraction",
                       "period_fill", "seasalt_tracer")
 
 
+#: Results kept per stage where they are large (hourly arrays): older ones are
+#: computed again when asked for.  Velocities of a site-year are ~15 MB.
+STAGE_LIMITS = {"velocities": 8}
+#: Sets of receptor surfaces (site overrides) whose velocity steps are kept.
+VELOCITY_STEP_SETS = 2
+
+
 def _key(obj) -> str:
     if obj is None:
         return "None"
@@ -161,6 +168,11 @@ class Study:
         if k not in self._cache:
             self._cache[k] = fn()
             self.counts[name] += 1
+            limit = STAGE_LIMITS.get(name)
+            if limit is not None:
+                mine = [c for c in self._cache if c[0] == name]
+                for old in mine[:-limit]:                    # the oldest first
+                    del self._cache[old]
         return self._cache[k]
 
     def screened(self, wet_options):
@@ -184,10 +196,24 @@ class Study:
         from .drydep import velocities
         if self.inputs.met is None:
             return None
-        key = repr(dry_options) + "|" + _key({**self.site_overrides, **(overrides or {})})
-        return self._cached("velocities", key,
-                            lambda: velocities(self.inputs.met, self.catalogue(overrides).surfaces(),
-                                               dry_options))
+        over = _key({**self.site_overrides, **(overrides or {})})
+        # the steps inside are cached too, per set of surfaces: an option change
+        # recomputes only the steps that depend on it (a particle size: that mode only)
+        sets = self._memo.setdefault("velocity steps", {})
+        steps = sets.pop(over, {})
+        sets[over] = steps                                   # most recent last
+        while len(sets) > VELOCITY_STEP_SETS:
+            sets.pop(next(iter(sets)))
+        return self._cached("velocities", repr(dry_options) + "|" + over,
+                            lambda: velocities(self.inputs.met, self.surfaces(overrides),
+                                               dry_options, cache=steps))
+
+    def surfaces(self, overrides=None) -> xr.Dataset:
+        """Receptor surfaces of the catalogue with the overrides (cached per overrides)."""
+        key = ("surfaces", _key({**self.site_overrides, **(overrides or {})}))
+        if key not in self._memo:
+            self._memo[key] = self.catalogue(overrides).surfaces()
+        return self._memo[key]
 
     def _needs_model(self, fixed_velocity) -> bool:
         """True when a measured dry species has no fixed velocity."""
@@ -220,13 +246,23 @@ class Study:
 
             # keyed by the content of the species' Vd: a dry option that leaves it as it
             # was (a particle size, for the gases) reuses its fill and its dry rows
-            which = (_digest(vd[f"vd_{sp}"]) if not fixed and f"vd_{sp}" in vd else
+            which = (self._vd_digest(vd, sp) if not fixed and f"vd_{sp}" in vd else
                      _key(overrides))
             entry = self._cached("dry", f"vel|{sp}|{fixed.get(sp)}|{which}|"
                                  f"{budget_options.min_slot_hours}", make)
             if entry is not None:
                 out[sp] = entry
         return out
+
+    def _vd_digest(self, vd: xr.Dataset, sp: str) -> str:
+        """Content digest of a species' Vd in a velocities Dataset (once per Dataset)."""
+        memo = self._memo.setdefault("digest", {})
+        key = (id(vd), sp)
+        if key not in memo:
+            memo[key] = (_digest(vd[f"vd_{sp}"]), vd)   # the Dataset held: its id stays unique
+            while len(memo) > 16 * len(COMPONENTS):
+                memo.pop(next(iter(memo)))
+        return memo[key][0]
 
     def dry_rows(self, dry_options, budget_options, fixed_velocity=None, overrides=None):
         """Deposition over each air-sampling period (independent of reporting periods)."""

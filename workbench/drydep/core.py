@@ -98,7 +98,47 @@ def _receptor_roughness(surf, receptors, opt):
     return np.asarray(z0, float), np.asarray(d, float)
 
 
-def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: list) -> xr.Dataset:
+#: Entries kept per step in a velocities cache (a few MB each for a site-year; a
+#: particle entry is one mode's Vd, so that step keeps more).
+CACHE_ENTRIES = {"micromet": 4, "state": 8, "gases": 8, "particles": 32}
+#: Options of steps 1-4 (air, sun, surface layer, receptors' u*, L and Ra).
+_MICROMET_OPTIONS = ("roughness", "ustar_floor", "ra_cap", "ra_min_height_z0",
+                     "blending_height", "night_cloud_cover", "unstable_iterations",
+                     "charnock_iterations")
+#: Options of step 5 (season and wetness), besides those of steps 1-4.
+_STATE_OPTIONS = ("seasonal_category", "wetness_rule")
+#: Options of the gases, besides those of steps 1-5.
+_GAS_OPTIONS = ("gas_scheme", "gases", "components", "nh3_treatment")
+
+
+def _options_key(opt: DryOptions, names) -> str:
+    return repr(tuple((n, getattr(opt, n)) for n in names))
+
+
+def _stage(cache, stage: str, key, compute):
+    """``compute()`` or its cached result (`cache` None: no caching).
+
+    Results are dicts of numpy arrays, frozen (read-only) when cached, so that they can
+    be handed to several output Datasets without copies and never change.
+    """
+    if cache is None:
+        return compute()
+    entries = cache.setdefault(stage, {})
+    if key in entries:
+        entries[key] = entries.pop(key)              # most recently used last
+        return entries[key]
+    out = compute()
+    for v in out.values():
+        if isinstance(v, np.ndarray):
+            v.flags.writeable = False
+    entries[key] = out
+    while len(entries) > CACHE_ENTRIES[stage]:
+        entries.pop(next(iter(entries)))
+    return out
+
+
+def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: list,
+            cache: dict | None = None) -> xr.Dataset:
     """All hourly quantities for one in-memory block of the met Dataset.
 
     Parameters
@@ -111,6 +151,9 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         Receptor surfaces (site, receptor).
     opt : DryOptions
     receptors : list of str
+    cache : dict, optional
+        Results of the steps kept between calls on the same block and surfaces, keyed
+        by the options each step depends on (see :func:`velocities`).
 
     Returns
     -------
@@ -133,126 +176,139 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     def rec(values):  # (1, receptor, 1)
         return np.asarray(values)[None, :, None]
 
-    # --- 1. inputs, pressure, air ------------------------------------------------------
-    temp, u, rh = st("temperature"), st("wind_speed"), st("relative_humidity")
-    k_down, precip = st("solar_radiation"), st("precipitation")
-    p_in = st("pressure")
-    pressure_estimated = np.isnan(p_in)
-    pres = np.where(pressure_estimated, standard_pressure_at(site("elevation")), p_in)
-    rho = air_density(temp, pres)
-    nu = kinematic_viscosity(temp, pres)
-    snow = st("snow_cover")
+    def micromet():
+        # --- 1. inputs, pressure, air ------------------------------------------------------
+        temp, u, rh = st("temperature"), st("wind_speed"), st("relative_humidity")
+        k_down, precip = st("solar_radiation"), st("precipitation")
+        p_in = st("pressure")
+        pressure_estimated = np.isnan(p_in)
+        pres = np.where(pressure_estimated, standard_pressure_at(site("elevation")), p_in)
+        rho = air_density(temp, pres)
+        nu = kinematic_viscosity(temp, pres)
+        snow = st("snow_cover")
 
-    # --- 2. sun and clouds ---------------------------------------------------------------
-    doy, hour = time_parts(block["time"].values - HALF_HOUR)
-    sin_el = solar_elevation_sine(doy[None, None, :], hour[None, None, :], site("latitude"),
-                                  site("longitude"))
-    n_meas = st("cloud_cover")
-    n_inf = eb.cloud_cover_from_radiation(k_down, sin_el)
-    cloud = np.where(~np.isnan(n_meas), n_meas, np.where(~np.isnan(n_inf), n_inf,
-                                                          opt.night_cloud_cover))
-    cloud_src = np.where(~np.isnan(n_meas), 0.0, np.where(~np.isnan(n_inf), 1.0, 2.0))
+        # --- 2. sun and clouds ---------------------------------------------------------------
+        doy, hour = time_parts(block["time"].values - HALF_HOUR)
+        sin_el = solar_elevation_sine(doy[None, None, :], hour[None, None, :], site("latitude"),
+                                      site("longitude"))
+        n_meas = st("cloud_cover")
+        n_inf = eb.cloud_cover_from_radiation(k_down, sin_el)
+        cloud = np.where(~np.isnan(n_meas), n_meas, np.where(~np.isnan(n_inf), n_inf,
+                                                              opt.night_cloud_cover))
+        cloud_src = np.where(~np.isnan(n_meas), 0.0, np.where(~np.isnan(n_inf), 1.0, 2.0))
 
-    # --- 3. the wind mast's surface ----------------------------------------------------
-    met_names, z0_ms, d_m = _met_surface(surf, receptors, opt)
-    d_m = d_m[:, None, None]
-    z_wind = site("wind_height")
-    met_water = np.isnan(z0_ms)[:, None, None]
-    z0_m = np.where(met_water, CHARNOCK_START_Z0, z0_ms[:, None, None]) + 0.0 * u
-    if met_water.any():
-        z0_w = CHARNOCK_START_Z0 + 0.0 * u
-        for _ in range(opt.charnock_iterations):
-            us_n = np.maximum(VON_KARMAN * u / np.log((z_wind - d_m) / z0_w), opt.ustar_floor)
-            z0_w = charnock_roughness(us_n, nu)
-        z0_m = np.where(met_water, z0_w, z0_m)
-    z_eff = np.maximum(z_wind - d_m, opt.ra_min_height_z0 * z0_m)
-    us_meas, h_meas = st("friction_velocity"), st("sensible_heat_flux")
-    has_us, has_h = ~np.isnan(us_meas), ~np.isnan(h_meas)
-    alb_m = np.array([eb.ALBEDO[m] for m in met_names])[:, None, None]
-    alpha_m = np.array([eb.PT_ALPHA[m] for m in met_names])[:, None, None]
-    alb_m = np.where(snow > 0.5, eb.SNOW_ALBEDO, alb_m)
-    h_pt_m = eb.sensible_heat_flux(eb.net_radiation(k_down, temp, cloud, alb_m), temp, pres, alpha_m)
-    h_day = np.where(has_h, h_meas, h_pt_m)
-    day = h_day > 0
-    # the unstable solve only for the hours that use it (day, u* not measured): the
-    # same element-wise steps on fewer elements
-    solve = day & ~has_us
-    us_unst = np.full(solve.shape, np.nan)
-    if solve.any():
-        def sub(x):
-            return np.broadcast_to(x, solve.shape)[solve]
-        with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-            us_unst[solve], _ = eb.ustar_unstable(
-                sub(u), sub(z_eff), sub(z0_m), sub(np.maximum(h_day, _MIN_DAY_FLUX)), sub(temp),
-                sub(rho), opt.unstable_iterations)
-    theta_n = eb.theta_star_night(cloud)
-    us_st, theta_lim, limited = eb.ustar_stable(u, z_eff, z0_m, theta_n, temp)
-    us_m = np.where(has_us, us_meas, np.where(day, us_unst, us_st))
-    theta_m = np.where(has_us, theta_n, theta_lim)
-    h_m = np.where(has_h, h_meas, np.where(day, h_day, -rho * CP_DRY_AIR * us_m * theta_m))
-    method = np.where(has_us & has_h, 0.0, np.where(has_us, 1.0, np.where(
-        has_h & day, 2.0, np.where(day, 3.0, 4.0))))
-    ok = ~np.isnan(temp) & (has_us | ~np.isnan(u)) & (has_h | ~np.isnan(k_down))
-    theta_limited = limited & ~has_us & ~day & ok
-    us_m = np.where(ok, us_m, np.nan)
-    night = ~day & ~has_h & ok
-
-    # --- 4. receptors --------------------------------------------------------------------
-    z0_s, d_r = _receptor_roughness(surf, receptors, opt)
-    water = np.isnan(z0_s)[:, :, None]
-    d_r = d_r[:, :, None]
-    z0_r = np.where(water, CHARNOCK_START_Z0, z0_s[:, :, None])
-    zb = opt.blending_height
-    with np.errstate(invalid="ignore", divide="ignore"):
-        if water.any():
-            z0_w = CHARNOCK_START_Z0 + 0.0 * us_m
+        # --- 3. the wind mast's surface ----------------------------------------------------
+        met_names, z0_ms, d_m = _met_surface(surf, receptors, opt)
+        d_m = d_m[:, None, None]
+        z_wind = site("wind_height")
+        met_water = np.isnan(z0_ms)[:, None, None]
+        z0_m = np.where(met_water, CHARNOCK_START_Z0, z0_ms[:, None, None]) + 0.0 * u
+        if met_water.any():
+            z0_w = CHARNOCK_START_Z0 + 0.0 * u
             for _ in range(opt.charnock_iterations):
-                us_w = np.maximum(transfer_ustar(us_m, z0_m, d_m, z0_w, 0.0, zb), opt.ustar_floor)
-                z0_w = charnock_roughness(us_w, nu)
-            z0_r = np.where(water, z0_w, z0_r)
-        z0_r = z0_r + 0.0 * us_m
-        us_r = transfer_ustar(us_m, z0_m, d_m, z0_r, d_r, zb)
-        us_r, floor_used = apply_floor(us_r, opt.ustar_floor)
-        alb_r = np.where(snow > 0.5, eb.SNOW_ALBEDO, rec([eb.ALBEDO[r] for r in receptors]))
-        alpha_r = rec([eb.PT_ALPHA[r] for r in receptors])
-        h_pt_r = eb.sensible_heat_flux(eb.net_radiation(k_down, temp, cloud, alb_r), temp, pres,
-                                       alpha_r)
-        theta_r = -h_m / (rho * CP_DRY_AIR * us_m)
-        h_r = np.where(has_h, h_meas, np.where(day, h_pt_r, -rho * CP_DRY_AIR * us_r * theta_r))
-        h_r = np.where(water, 0.0, h_r)
-        h_r = np.where(np.isnan(us_r), np.nan, h_r)
-        inv_l = eb.inverse_obukhov(us_r, h_r, temp, rho)
-        z_ref, raised = reference_height(site("sampler_height"), d_r, z0_r, opt.ra_min_height_z0)
-        ra = aerodynamic_resistance(z_ref, d_r, z0_r, us_r, inv_l)
-    ra, cap_used = apply_cap(ra, opt.ra_cap)
-    valid = ~np.isnan(us_r) & ~np.isnan(inv_l)
-    floor_used, cap_used = floor_used & valid, cap_used & valid
+                us_n = np.maximum(VON_KARMAN * u / np.log((z_wind - d_m) / z0_w), opt.ustar_floor)
+                z0_w = charnock_roughness(us_n, nu)
+            z0_m = np.where(met_water, z0_w, z0_m)
+        z_eff = np.maximum(z_wind - d_m, opt.ra_min_height_z0 * z0_m)
+        us_meas, h_meas = st("friction_velocity"), st("sensible_heat_flux")
+        has_us, has_h = ~np.isnan(us_meas), ~np.isnan(h_meas)
+        alb_m = np.array([eb.ALBEDO[m] for m in met_names])[:, None, None]
+        alpha_m = np.array([eb.PT_ALPHA[m] for m in met_names])[:, None, None]
+        alb_m = np.where(snow > 0.5, eb.SNOW_ALBEDO, alb_m)
+        h_pt_m = eb.sensible_heat_flux(eb.net_radiation(k_down, temp, cloud, alb_m), temp, pres, alpha_m)
+        h_day = np.where(has_h, h_meas, h_pt_m)
+        day = h_day > 0
+        # the unstable solve only for the hours that use it (day, u* not measured): the
+        # same element-wise steps on fewer elements
+        solve = day & ~has_us
+        us_unst = np.full(solve.shape, np.nan)
+        if solve.any():
+            def sub(x):
+                return np.broadcast_to(x, solve.shape)[solve]
+            with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+                us_unst[solve], _ = eb.ustar_unstable(
+                    sub(u), sub(z_eff), sub(z0_m), sub(np.maximum(h_day, _MIN_DAY_FLUX)), sub(temp),
+                    sub(rho), opt.unstable_iterations)
+        theta_n = eb.theta_star_night(cloud)
+        us_st, theta_lim, limited = eb.ustar_stable(u, z_eff, z0_m, theta_n, temp)
+        us_m = np.where(has_us, us_meas, np.where(day, us_unst, us_st))
+        theta_m = np.where(has_us, theta_n, theta_lim)
+        h_m = np.where(has_h, h_meas, np.where(day, h_day, -rho * CP_DRY_AIR * us_m * theta_m))
+        method = np.where(has_us & has_h, 0.0, np.where(has_us, 1.0, np.where(
+            has_h & day, 2.0, np.where(day, 3.0, 4.0))))
+        ok = ~np.isnan(temp) & (has_us | ~np.isnan(u)) & (has_h | ~np.isnan(k_down))
+        theta_limited = limited & ~has_us & ~day & ok
+        us_m = np.where(ok, us_m, np.nan)
+        night = ~day & ~has_h & ok
 
-    # --- 5. season and wetness -------------------------------------------------------------
-    times = block["time"].values
-    month = _seasons.calendar_month(times)[None, None, :]
-    if opt.seasonal_category is not None:
-        cat = _seasons.category_override(month, opt.seasonal_category) + 0.0 * temp
-        cat_src = 3.0 + 0.0 * cat
-    else:
-        by_month = _seasons.category_from_month(month, site("latitude"))
-        base = by_month + 0.0 * temp
-        if _FROST in block:  # found beforehand on the whole record (dask blocks)
-            seen = st(_FROST) > 0.5
-        else:  # the whole record is here
-            seen = _seasons.autumn_frost_seen_array(
-                by_month, temp, times.astype("datetime64[Y]").astype(np.int64)[None, None, :])
-        cat, cat_src = _seasons.category_from_state(base, seen, temp,
-                                                    snow if "snow_cover" in block else None)
-    if _PREV in block:  # found beforehand on the whole record (dask blocks)
-        prev = st(_PREV)
-    else:  # the whole record is here: the previous hour's, NaN for the first
-        prev = np.concatenate([np.full(precip.shape[:-1] + (1,), np.nan), precip[..., :-1]],
-                              axis=-1)
-    rain = _wetness.rain_wet(precip, prev)
-    dew = _wetness.dew_wet(specific_humidity_deficit(temp, rh, pres), us_r)
-    given = st("surface_wet") if "surface_wet" in block else None
-    wet, kind, wet_src = _wetness.wetness(opt.wetness_rule, rain, dew, given)
+        # --- 4. receptors --------------------------------------------------------------------
+        z0_s, d_r = _receptor_roughness(surf, receptors, opt)
+        water = np.isnan(z0_s)[:, :, None]
+        d_r = d_r[:, :, None]
+        z0_r = np.where(water, CHARNOCK_START_Z0, z0_s[:, :, None])
+        zb = opt.blending_height
+        with np.errstate(invalid="ignore", divide="ignore"):
+            if water.any():
+                z0_w = CHARNOCK_START_Z0 + 0.0 * us_m
+                for _ in range(opt.charnock_iterations):
+                    us_w = np.maximum(transfer_ustar(us_m, z0_m, d_m, z0_w, 0.0, zb), opt.ustar_floor)
+                    z0_w = charnock_roughness(us_w, nu)
+                z0_r = np.where(water, z0_w, z0_r)
+            z0_r = z0_r + 0.0 * us_m
+            us_r = transfer_ustar(us_m, z0_m, d_m, z0_r, d_r, zb)
+            us_r, floor_used = apply_floor(us_r, opt.ustar_floor)
+            alb_r = np.where(snow > 0.5, eb.SNOW_ALBEDO, rec([eb.ALBEDO[r] for r in receptors]))
+            alpha_r = rec([eb.PT_ALPHA[r] for r in receptors])
+            h_pt_r = eb.sensible_heat_flux(eb.net_radiation(k_down, temp, cloud, alb_r), temp, pres,
+                                           alpha_r)
+            theta_r = -h_m / (rho * CP_DRY_AIR * us_m)
+            h_r = np.where(has_h, h_meas, np.where(day, h_pt_r, -rho * CP_DRY_AIR * us_r * theta_r))
+            h_r = np.where(water, 0.0, h_r)
+            h_r = np.where(np.isnan(us_r), np.nan, h_r)
+            inv_l = eb.inverse_obukhov(us_r, h_r, temp, rho)
+            z_ref, raised = reference_height(site("sampler_height"), d_r, z0_r, opt.ra_min_height_z0)
+            ra = aerodynamic_resistance(z_ref, d_r, z0_r, us_r, inv_l)
+        ra, cap_used = apply_cap(ra, opt.ra_cap)
+        valid = ~np.isnan(us_r) & ~np.isnan(inv_l)
+        floor_used, cap_used = floor_used & valid, cap_used & valid
+
+        return {"temp": temp, "u": u, "rh": rh, "k_down": k_down, "precip": precip, "pres": pres, "rho": rho, "snow": snow, "cloud": cloud, "cloud_src": cloud_src, "pressure_estimated": pressure_estimated, "us_m": us_m, "h_m": h_m, "method": method, "ok": ok, "theta_limited": theta_limited, "night": night, "us_r": us_r, "floor_used": floor_used, "h_r": h_r, "inv_l": inv_l, "z_ref": z_ref, "raised": raised, "ra": ra, "cap_used": cap_used, "valid": valid, "z0_r": z0_r}
+
+    m = _stage(cache, "micromet", _options_key(opt, _MICROMET_OPTIONS), micromet)
+    (temp, u, rh, k_down, precip, pres, rho, snow, cloud, cloud_src, pressure_estimated, us_m, h_m, method, ok, theta_limited, night, us_r, floor_used, h_r, inv_l, z_ref, raised, ra, cap_used, valid, z0_r) = (m[k] for k in ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "cloud", "cloud_src", "pressure_estimated", "us_m", "h_m", "method", "ok", "theta_limited", "night", "us_r", "floor_used", "h_r", "inv_l", "z_ref", "raised", "ra", "cap_used", "valid", "z0_r"))
+
+    def season_wetness():
+        # --- 5. season and wetness -------------------------------------------------------------
+        times = block["time"].values
+        month = _seasons.calendar_month(times)[None, None, :]
+        if opt.seasonal_category is not None:
+            cat = _seasons.category_override(month, opt.seasonal_category) + 0.0 * temp
+            cat_src = 3.0 + 0.0 * cat
+        else:
+            by_month = _seasons.category_from_month(month, site("latitude"))
+            base = by_month + 0.0 * temp
+            if _FROST in block:  # found beforehand on the whole record (dask blocks)
+                seen = st(_FROST) > 0.5
+            else:  # the whole record is here
+                seen = _seasons.autumn_frost_seen_array(
+                    by_month, temp, times.astype("datetime64[Y]").astype(np.int64)[None, None, :])
+            cat, cat_src = _seasons.category_from_state(base, seen, temp,
+                                                        snow if "snow_cover" in block else None)
+        if _PREV in block:  # found beforehand on the whole record (dask blocks)
+            prev = st(_PREV)
+        else:  # the whole record is here: the previous hour's, NaN for the first
+            prev = np.concatenate([np.full(precip.shape[:-1] + (1,), np.nan), precip[..., :-1]],
+                                  axis=-1)
+        rain = _wetness.rain_wet(precip, prev)
+        dew = _wetness.dew_wet(specific_humidity_deficit(temp, rh, pres), us_r)
+        given = st("surface_wet") if "surface_wet" in block else None
+        wet, kind, wet_src = _wetness.wetness(opt.wetness_rule, rain, dew, given)
+
+        return {"cat": cat, "cat_src": cat_src, "wet": wet, "kind": kind, "wet_src": wet_src}
+
+    k_state = _options_key(opt, _MICROMET_OPTIONS + _STATE_OPTIONS)
+    sw = _stage(cache, "state", k_state, season_wetness)
+    (cat, cat_src, wet, kind, wet_src) = (sw[k] for k in ("cat", "cat_src", "wet", "kind", "wet_src"))
 
     # --- 6. gases and particles ---------------------------------------------------------------
     coords = {"site": block["site"].values, "receptor": receptors, "time": block["time"].values}
@@ -265,13 +321,17 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         """`x` broadcast to `shape`, as a new array; `x` itself when it is one already.
 
         An array made in this block (not a view) of the full shape is not copied,
-        unless it was handed to another output variable before.
+        unless it was handed to another output variable before; nor is a frozen
+        (read-only, contiguous) array of the cache, which nobody can change.
         """
-        if (isinstance(x, np.ndarray) and x.shape == shape and x.base is None
-                and x.flags.c_contiguous and x.flags.writeable and id(x) not in handed_out):
+        if not isinstance(x, np.ndarray) or x.shape != shape or not x.flags.c_contiguous:
+            return np.array(np.broadcast_to(x, shape))
+        if not x.flags.writeable and cache is not None:
+            return x
+        if x.base is None and x.flags.writeable and id(x) not in handed_out:
             handed_out[id(x)] = x
             return x
-        return np.array(np.broadcast_to(x, shape))
+        return np.array(x)
 
     def srt(x, units, long_name, **extra):
         return xr.Variable(("site", "receptor", "time"), own(x, shape3),
@@ -284,12 +344,22 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     out = {}
     land = rec(np.array(receptors, dtype=object))
     state = _gas.CanopyState(land, cat, k_down, temp, kind, site("terrain_slope"), us_r)
+    def gas_parts():
+        with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+            comps = _gas.surface_resistances(scheme, opt.gases, state)
+            rbs = _gas.quasi_laminar_resistances(opt.gases, us_r, temp, pres)
+            flat = {}
+            for g in opt.gases:
+                flat[f"rb|{g}"] = rbs[g]
+                flat.update({f"{k}|{g}": v for k, v in comps[g].items()})
+                flat[f"vd|{g}"] = _gas.deposition_velocity(ra, rbs[g], comps[g]["rc"])
+        return flat
+
+    gp = _stage(cache, "gases", k_state + _options_key(opt, _GAS_OPTIONS), gas_parts)
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-        comps = _gas.surface_resistances(scheme, opt.gases, state)
-        rbs = _gas.quasi_laminar_resistances(opt.gases, us_r, temp, pres)
         for g in opt.gases:
-            rb = rbs[g]
-            comp = comps[g]
+            rb = gp[f"rb|{g}"]
+            comp = {k.split("|")[0]: v for k, v in gp.items() if k.endswith(f"|{g}")}
             out[f"rb_{g}"] = srt(rb, "s m-1", f"quasi-laminar resistance of {g}")
             out[f"rc_{g}"] = srt(comp["rc"], "s m-1", f"surface resistance of {g} ({scheme.NAME})")
             if opt.components:
@@ -303,7 +373,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             if g == "HNO3":
                 out["rc_floor_used_HNO3"] = srt(comp["floor_used"] & valid, "1",
                                                 "HNO3 surface resistance raised to its floor")
-            vd = _gas.deposition_velocity(ra, rb, comp["rc"])
+            vd = comp["vd"]
             extra = {"note": NH3_NOTE} if g == "NH3" else {}
             out[f"vd_{g}"] = srt(vd, "m s-1", f"dry deposition velocity of {g}", **extra)
         # each distinct mode once, all of them in one call (shared surface terms)
@@ -314,13 +384,18 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                 (spec.fine_fraction, spec.fine), (1.0 - spec.fine_fraction, spec.coarse))
                 if frac > 0.0]
         modes = list(dict.fromkeys(mode for pp in parts.values() for _, mode in pp))
-        cache = dict(zip(modes, _particles.mass_weighted_velocities(
-            modes, rh, us_r, ra, temp, pres, land, cat, wet, opt.size_nodes)))
+        mode_key = {mode: k_state + repr((mode, opt.size_nodes)) for mode in modes}
+        known = cache.get("particles", {}) if cache is not None else {}
+        todo = [mode for mode in modes if mode_key[mode] not in known]
+        new = dict(zip(todo, _particles.mass_weighted_velocities(
+            todo, rh, us_r, ra, temp, pres, land, cat, wet, opt.size_nodes))) if todo else {}
+        by_mode = {mode: _stage(cache, "particles", mode_key[mode],
+                                lambda mode=mode: {"vd": new[mode]})["vd"] for mode in modes}
         for sp in opt.particles:
             spec = opt.mode_of(sp)
             total = 0.0
             for frac, mode in parts[sp]:
-                total = total + frac * cache[mode]
+                total = total + frac * by_mode[mode]
             out[f"vd_{sp}"] = srt(total, "m s-1", f"mass-weighted dry deposition velocity of {sp} "
                                   "(Zhang et al. 2001)", fine_fraction=spec.fine_fraction,
                                   fine_mmd_m=spec.fine.mmd, fine_gsd=spec.fine.gsd,
@@ -375,7 +450,8 @@ def _template(aug, surf, opt, receptors):
                                     "time": aug["time"].values})
 
 
-def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None = None) -> xr.Dataset:
+def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None = None,
+               cache: dict | None = None) -> xr.Dataset:
     """Dry deposition velocities and every resistance, per site, receptor and hour.
 
     Parameters
@@ -390,6 +466,13 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         Receptor surfaces, dims (site, receptor), as produced by
         ``SiteCatalogue.surfaces()``.
     options : DryOptions, optional
+    cache : dict, optional
+        Kept by the caller between calls on the *same* `met` and `surfaces` (an app
+        trying one option after another): the surface layer, the season and wetness,
+        the gases and each particle mode are then computed again only when an option
+        they depend on changes (at most :data:`CACHE_ENTRIES` results per step).  The
+        arrays of the result are then read-only, shared with the cache.  Not used for
+        dask-backed `met`.
 
     Returns
     -------
@@ -426,7 +509,7 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
                                                      "receptors": receptors},
                                template=_template(aug, surf, opt, receptors))
     else:
-        hourly = _hourly(aug, surf, opt, receptors)
+        hourly = _hourly(aug, surf, opt, receptors, cache)
     _, d_r = _receptor_roughness(surf, receptors, opt)
     # Variables, added in one step (numpy sums in memory, dask sums when lazy)
     extra = {
