@@ -19,6 +19,10 @@ import xarray as xr
 from .budget import COMPONENTS, PAIRS, BudgetError, BudgetOptions
 from .dryflux import _cumulative, _hour_bounds, _inputs_for, deposition_rows, fill_diurnal, period_mean, share_to_periods
 
+#: Shares of rows among periods kept by :func:`dry_components` (small arrays each).
+AGG_ENTRIES = 512
+
+
 def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=7,
                        template=None):
     """Gap-filled hourly Vd per species, with the fill mask and its source.
@@ -215,7 +219,7 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=Non
     return out
 
 
-def dry_components(rows: dict, periods: pd.DataFrame):
+def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
     """Dry deposition of every measured species over the reporting periods.
 
     Parameters
@@ -223,6 +227,11 @@ def dry_components(rows: dict, periods: pd.DataFrame):
     rows : dict
         Output of :func:`dry_rows`.
     periods : pandas.DataFrame
+    memo : dict, optional
+        Kept between calls: the share of each species' rows among the periods, keyed
+        by the identity of its rows (which :func:`dry_rows` reuses while their inputs
+        stay the same) and the periods, so that an option touching one species
+        shares that species only.
 
     Returns
     -------
@@ -242,9 +251,19 @@ def dry_components(rows: dict, periods: pd.DataFrame):
     pa, pb = _hour_bounds(times, periods["start"].values, periods["end"].values)
     hours_p = periods["hours"].to_numpy(dtype=float)
 
+    labels = tuple(periods["label"])
+
     def agg(r):
-        return share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"], r["cs"],
-                                n_s, periods, times, r["start"], r["end"])
+        key = (id(r), n_s, labels)
+        if memo is not None and key in memo:
+            return memo[key][0]
+        out = share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"], r["cs"],
+                               n_s, periods, times, r["start"], r["end"])
+        if memo is not None:
+            memo[key] = (out, r)                      # the rows held: their id stays unique
+            while len(memo) > AGG_ENTRIES:
+                memo.pop(next(iter(memo)))
+        return out
 
     for k, sp in enumerate(species_list):
         if sp not in rows["species"]:

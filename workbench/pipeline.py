@@ -285,7 +285,8 @@ class Study:
             return None, []
         key = (repr(dry_options) + _key(overrides) + _key(fixed_velocity)
                + budget_options.flux_key() + ",".join(periods["label"]))
-        return self._cached("dry", key, lambda: (dry_components(rows, periods), rows["notes"]))
+        return self._cached("dry", key, lambda: (
+            dry_components(rows, periods, self._memo.setdefault("shares", {})), rows["notes"]))
 
     def season_coverage(self, dry_options, budget_options, years, fixed_velocity=None, overrides=None):
         """(site, year, species): every season has concentrations in that year."""
