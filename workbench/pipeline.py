@@ -49,6 +49,11 @@ STAGE_LIMITS = {"velocities": 8}
 VELOCITY_STEP_SETS = 2
 
 
+def _rkey(receptors) -> str:
+    """Cache-key part of a receptor subset ("" for every receptor)."""
+    return "" if receptors is None else "|receptors=" + ",".join(map(str, receptors))
+
+
 def _key(obj) -> str:
     if obj is None:
         return "None"
@@ -192,11 +197,12 @@ class Study:
         return self._cached("wet", key, lambda: wet_deposition(scr, periods, wet_options,
                                                                met=self.inputs.met))
 
-    def velocities(self, dry_options, overrides=None):
+    def velocities(self, dry_options, overrides=None, receptors=None):
+        """Hourly Vd and resistances (all receptors, or the ones named)."""
         from .drydep import velocities
         if self.inputs.met is None:
             return None
-        over = _key({**self.site_overrides, **(overrides or {})})
+        over = _key({**self.site_overrides, **(overrides or {})}) + _rkey(receptors)
         # the steps inside are cached too, per set of surfaces: an option change
         # recomputes only the steps that depend on it (a particle size: that mode only)
         sets = self._memo.setdefault("velocity steps", {})
@@ -206,7 +212,11 @@ class Study:
             sets.pop(next(iter(sets)))
         return self._cached("velocities", repr(dry_options) + "|" + over,
                             lambda: velocities(self.inputs.met, self.surfaces(overrides),
-                                               dry_options, cache=steps))
+                                               dry_options, cache=steps, receptors=receptors))
+
+    def receptors(self, overrides=None) -> list:
+        """Every receptor surface of the sites, in the order of the budget."""
+        return list(dict.fromkeys(r for s in self.catalogue(overrides) for r in s.surfaces))
 
     def surfaces(self, overrides=None) -> xr.Dataset:
         """Receptor surfaces of the catalogue with the overrides (cached per overrides)."""
@@ -221,13 +231,14 @@ class Study:
         measured = [sp for sp in dry_species if self.inputs.air is not None and sp in self.inputs.air]
         return self.inputs.met is not None and any(sp not in (fixed_velocity or {}) for sp in measured)
 
-    def _velocity_sets(self, dry_options, budget_options, fixed_velocity, overrides):
+    def _velocity_sets(self, dry_options, budget_options, fixed_velocity, overrides,
+                       receptors=None):
         """Gap-filled Vd per species, each cached on its own (model or fixed value)."""
         dry_species = [c[2] for c in COMPONENTS if c[1] == "dry"]
         need_model = self._needs_model(fixed_velocity)
-        vd = self.velocities(dry_options, overrides) if need_model else None
+        vd = self.velocities(dry_options, overrides, receptors) if need_model else None
         cat = self.catalogue(overrides)
-        receptors = list(dict.fromkeys(r for s in cat for r in s.surfaces))
+        receptors = list(receptors) if receptors is not None else self.receptors(overrides)
         met = self.inputs.met
         out = {}
         for sp in dry_species:
@@ -247,7 +258,7 @@ class Study:
             # keyed by the content of the species' Vd: a dry option that leaves it as it
             # was (a particle size, for the gases) reuses its fill and its dry rows
             which = (self._vd_digest(vd, sp) if not fixed and f"vd_{sp}" in vd else
-                     _key(overrides))
+                     _key(overrides) + _rkey(receptors))
             entry = self._cached("dry", f"vel|{sp}|{fixed.get(sp)}|{which}|"
                                  f"{budget_options.min_slot_hours}", make)
             if entry is not None:
@@ -264,34 +275,40 @@ class Study:
                 memo.pop(next(iter(memo)))
         return memo[key][0]
 
-    def dry_rows(self, dry_options, budget_options, fixed_velocity=None, overrides=None):
+    def dry_rows(self, dry_options, budget_options, fixed_velocity=None, overrides=None,
+                 receptors=None):
         """Deposition over each air-sampling period (independent of reporting periods)."""
         if self.inputs.air is None or self.inputs.met is None:
             return None
         fixed_velocity = dict(fixed_velocity or {})
-        vel = self._velocity_sets(dry_options, budget_options, fixed_velocity, overrides)
+        vel = self._velocity_sets(dry_options, budget_options, fixed_velocity, overrides,
+                                  receptors)
         if not vel:
             return None
         flux = budget_options.flux_key()
-        memo = self._memo.setdefault(repr(dry_options) + _key(overrides) + flux, {})
-        key = repr(dry_options) + _key(overrides) + _key(fixed_velocity) + flux
+        over = _key(overrides) + _rkey(receptors)
+        memo = self._memo.setdefault(repr(dry_options) + over + flux, {})
+        key = repr(dry_options) + over + _key(fixed_velocity) + flux
         return self._cached("dry", "rows|" + key, lambda: dry_rows(
             self.inputs.air, vel, self.inputs.met, self.catalogue(overrides).ids, budget_options,
             memo, self._memo.setdefault("shared", {})))
 
-    def dry(self, dry_options, budget_options, periods, fixed_velocity=None, overrides=None):
-        rows = self.dry_rows(dry_options, budget_options, fixed_velocity, overrides)
+    def dry(self, dry_options, budget_options, periods, fixed_velocity=None, overrides=None,
+            receptors=None):
+        rows = self.dry_rows(dry_options, budget_options, fixed_velocity, overrides, receptors)
         if rows is None:
             return None, []
-        key = (repr(dry_options) + _key(overrides) + _key(fixed_velocity)
+        key = (repr(dry_options) + _key(overrides) + _rkey(receptors) + _key(fixed_velocity)
                + budget_options.flux_key() + ",".join(periods["label"]))
         return self._cached("dry", key, lambda: (
             dry_components(rows, periods, self._memo.setdefault("shares", {})), rows["notes"]))
 
-    def season_coverage(self, dry_options, budget_options, years, fixed_velocity=None, overrides=None):
+    def season_coverage(self, dry_options, budget_options, years, fixed_velocity=None,
+                        overrides=None, receptors=None):
         """(site, year, species): every season has concentrations in that year."""
         months = _periods.make_periods(years["start"].values[0], years["end"].values[-1], "month")
-        dry_m, _ = self.dry(dry_options, budget_options, months, fixed_velocity, overrides)
+        dry_m, _ = self.dry(dry_options, budget_options, months, fixed_velocity, overrides,
+                            receptors)
         if dry_m is None:
             return None
         cov = dry_m["coverage"].values > 0                      # (site, month, species)
@@ -307,8 +324,13 @@ class Study:
 
     # ---------------------------------------------------------------- the budget
     def run(self, wet_options=None, dry_options=None, budget_options=None, fixed_velocity=None,
-            resolution="year", start=None, end=None, overrides=None) -> Result:
-        """Compute the budget at a resolution, the yearly budget and the span mean."""
+            resolution="year", start=None, end=None, overrides=None, receptors=None) -> Result:
+        """Compute the budget at a resolution, the yearly budget and the span mean.
+
+        `receptors` (a sequence of receptor surfaces) computes those only, with the
+        same numbers as in the whole run: an app showing one receptor at a time
+        computes what it shows (default: every receptor of the sites).
+        """
         from .drydep import DryOptions
         from .wet import WetOptions
         wet_options = wet_options or WetOptions()
@@ -316,18 +338,26 @@ class Study:
         budget_options = budget_options or BudgetOptions()
         fixed_velocity = dict(fixed_velocity or {})
         cat = self.catalogue(overrides)
-        receptors = list(dict.fromkeys(r for s in cat for r in s.surfaces))
+        every = self.receptors(overrides)
+        if receptors is not None:
+            receptors = tuple(str(r) for r in receptors)
+            unknown = [r for r in receptors if r not in every]
+            if unknown:
+                raise ValueError(f"receptors {unknown} are not surfaces of these sites {every}")
         hy = wet_options.hydro_start_month
         periods = self.periods(resolution, start, end, hy)
         years = self.periods("year", start, end, hy)
 
         def one(table, season_cov):
             wet = self.wet(wet_options, table)
-            dry, notes = self.dry(dry_options, budget_options, table, fixed_velocity, overrides)
-            ds = assemble(wet, dry, cat, table, budget_options, receptors, season_cov)
+            dry, notes = self.dry(dry_options, budget_options, table, fixed_velocity, overrides,
+                                  receptors)
+            ds = assemble(wet, dry, cat, table, budget_options,
+                          list(receptors) if receptors is not None else every, season_cov)
             return ds, wet, notes
 
-        season_cov = self.season_coverage(dry_options, budget_options, years, fixed_velocity, overrides)
+        season_cov = self.season_coverage(dry_options, budget_options, years, fixed_velocity,
+                                          overrides, receptors)
         year_ds, wet_y, notes = one(years, season_cov)
         if resolution == "year":
             res_ds, wet_r = year_ds, wet_y
@@ -336,8 +366,9 @@ class Study:
         self.counts["budget"] += 1
         return Result(budget=res_ds, years=year_ds,
                       screened=self.screened(wet_options), wet=wet_r,
-                      velocities=self.velocities(dry_options, overrides)
+                      velocities=self.velocities(dry_options, overrides, receptors)
                       if self._needs_model(fixed_velocity) else None, periods=periods,
                       options={"wet": wet_options, "dry": dry_options, "budget": budget_options,
-                               "fixed_velocity": fixed_velocity, "resolution": resolution},
+                               "fixed_velocity": fixed_velocity, "resolution": resolution,
+                               "receptors": receptors},
                       notes=notes)

@@ -92,3 +92,17 @@ def test_cached_results_are_read_only(inputs):
         ds["ra"].values[0, 0, 0] = 1.0           # shared with the cache: nobody can change it
     fresh = velocities(met, surf, DryOptions())
     fresh["ra"].values[0, 0, 0] = 1.0            # without a cache the arrays are the caller's
+
+
+def test_some_receptors_only_give_the_same_numbers(inputs):
+    """A receptor computed alone equals its slice of the whole calculation (the wind
+    mast's surface still comes from every receptor)."""
+    met, surf = inputs
+    whole = velocities(met, surf, DryOptions())
+    cache = {}
+    for rec in [str(r) for r in surf["receptor"].values][:3]:
+        one = velocities(met, surf, DryOptions(), cache=cache, receptors=[rec])
+        assert list(one["receptor"].values) == [rec]
+        _assert_same(one, whole.sel(receptor=[rec]))
+    with pytest.raises(ValueError, match="not among"):
+        velocities(met, surf, DryOptions(), receptors=["no_such_surface"])

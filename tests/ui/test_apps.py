@@ -14,6 +14,7 @@ import pytest
 
 from workbench.ui.apps import TABS, NetworkOverview, SensitivityExplorer, SiteExplorer
 from workbench.ui.session import Session
+from workbench.ui.summaries import mean_totals
 
 #: kg ha-1 per (mol m-2 x g mol-1): 1e-3 kg/g x 1e4 m2/ha.
 KG_HA_PER_G_M2 = 10.0
@@ -69,9 +70,32 @@ def test_wet_option_change_never_recomputes_velocities(app):
 def test_view_changes_do_not_recompute(app):
     counts = dict(app.study.counts)
     app.unit_w.value = "eq/ha/yr"
-    app.receptor_w.value = "grass"
     assert app.study.counts == counts
     app.unit_w.value = "kg/ha/yr"
+    assert app.study.counts == counts
+
+
+def test_a_new_receptor_is_computed_once_and_the_wet_chain_not_at_all(app):
+    """The explorer computes the receptor it shows: another receptor is computed on
+    first view (its velocities; the screening and the wet chain are reused), and
+    coming back to one seen before computes nothing."""
+    first = app.receptor_w.value
+    other = next(r for r in app.receptor_w.options if r != first)
+    counts = dict(app.study.counts)
+    app.receptor_w.value = other
+    assert list(app.result.years["receptor"].values) == [other]
+    after = dict(app.study.counts)
+    assert after["screened"] == counts["screened"] and after["wet"] == counts["wet"]
+    assert after["velocities"] == counts["velocities"] + 1
+    app.receptor_w.value = first
+    app.receptor_w.value = other
+    assert app.study.counts["velocities"] == after["velocities"]
+    # the figure shows the receptor's numbers from the budget
+    bars = {t.name: t for t in app.figs["budget"].data if t.type == "bar"}
+    total = sum(y for t in bars.values() for y in t.y if y is not None and t.legendgroup == "S")
+    t = mean_totals(app.result.years, app.site, other, None, app.unit_w.value)
+    assert total == pytest.approx(t.loc["S_total", "value"], rel=1e-9)
+    app.receptor_w.value = first
 
 
 def test_fixed_velocity_what_if_is_linear_and_equals_c_times_vd(app):

@@ -138,7 +138,7 @@ def _stage(cache, stage: str, key, compute):
 
 
 def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: list,
-            cache: dict | None = None) -> xr.Dataset:
+            cache: dict | None = None, met_surf: xr.Dataset | None = None) -> xr.Dataset:
     """All hourly quantities for one in-memory block of the met Dataset.
 
     Parameters
@@ -154,6 +154,9 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     cache : dict, optional
         Results of the steps kept between calls on the same block and surfaces, keyed
         by the options each step depends on (see :func:`velocities`).
+    met_surf : xarray.Dataset, optional
+        Every receptor surface of the sites (default `surf`), for the surface around
+        the wind mast when `surf` holds only some receptors.
 
     Returns
     -------
@@ -163,6 +166,9 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     scheme = _gas.get_scheme(opt.gas_scheme)
     if not np.array_equal(surf["site"].values, block["site"].values):
         surf = surf.sel(site=block["site"].values)
+    met_surf = surf if met_surf is None else met_surf
+    if not np.array_equal(met_surf["site"].values, block["site"].values):
+        met_surf = met_surf.sel(site=block["site"].values)
     n_s, n_t, n_r = block.sizes["site"], block.sizes["time"], len(receptors)
 
     def st(name):  # (site, 1, time)
@@ -198,7 +204,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         cloud_src = np.where(~np.isnan(n_meas), 0.0, np.where(~np.isnan(n_inf), 1.0, 2.0))
 
         # --- 3. the wind mast's surface ----------------------------------------------------
-        met_names, z0_ms, d_m = _met_surface(surf, receptors, opt)
+        met_names, z0_ms, d_m = _met_surface(
+            met_surf, [str(r) for r in met_surf["receptor"].values], opt)
         d_m = d_m[:, None, None]
         z_wind = site("wind_height")
         met_water = np.isnan(z0_ms)[:, None, None]
@@ -274,7 +281,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
 
         return {"temp": temp, "u": u, "rh": rh, "k_down": k_down, "precip": precip, "pres": pres, "rho": rho, "snow": snow, "cloud": cloud, "cloud_src": cloud_src, "pressure_estimated": pressure_estimated, "us_m": us_m, "h_m": h_m, "method": method, "ok": ok, "theta_limited": theta_limited, "night": night, "us_r": us_r, "floor_used": floor_used, "h_r": h_r, "inv_l": inv_l, "z_ref": z_ref, "raised": raised, "ra": ra, "cap_used": cap_used, "valid": valid, "z0_r": z0_r}
 
-    m = _stage(cache, "micromet", _options_key(opt, _MICROMET_OPTIONS), micromet)
+    rkey = repr(tuple(receptors))            # a cache may serve several receptor sets
+    m = _stage(cache, "micromet", rkey + _options_key(opt, _MICROMET_OPTIONS), micromet)
     (temp, u, rh, k_down, precip, pres, rho, snow, cloud, cloud_src, pressure_estimated, us_m, h_m, method, ok, theta_limited, night, us_r, floor_used, h_r, inv_l, z_ref, raised, ra, cap_used, valid, z0_r) = (m[k] for k in ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "cloud", "cloud_src", "pressure_estimated", "us_m", "h_m", "method", "ok", "theta_limited", "night", "us_r", "floor_used", "h_r", "inv_l", "z_ref", "raised", "ra", "cap_used", "valid", "z0_r"))
 
     def season_wetness():
@@ -306,7 +314,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
 
         return {"cat": cat, "cat_src": cat_src, "wet": wet, "kind": kind, "wet_src": wet_src}
 
-    k_state = _options_key(opt, _MICROMET_OPTIONS + _STATE_OPTIONS)
+    k_state = rkey + _options_key(opt, _MICROMET_OPTIONS + _STATE_OPTIONS)
     sw = _stage(cache, "state", k_state, season_wetness)
     (cat, cat_src, wet, kind, wet_src) = (sw[k] for k in ("cat", "cat_src", "wet", "kind", "wet_src"))
 
@@ -437,9 +445,10 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     return xr.Dataset({**base, **out}, coords=coords)
 
 
-def _template(aug, surf, opt, receptors):
+def _template(aug, surf, opt, receptors, met_surf=None):
     """An empty lazy Dataset shaped like the output of :func:`_hourly` on `aug`."""
-    probe = _hourly(aug.isel(time=slice(0, 1)).compute(), surf, opt, receptors)
+    probe = _hourly(aug.isel(time=slice(0, 1)).compute(), surf, opt, receptors,
+                    met_surf=met_surf)
     chunks = dict(aug.chunks)
     data = {}
     for name, v in probe.data_vars.items():
@@ -451,7 +460,7 @@ def _template(aug, surf, opt, receptors):
 
 
 def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None = None,
-               cache: dict | None = None) -> xr.Dataset:
+               cache: dict | None = None, receptors=None) -> xr.Dataset:
     """Dry deposition velocities and every resistance, per site, receptor and hour.
 
     Parameters
@@ -473,6 +482,10 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         they depend on changes (at most :data:`CACHE_ENTRIES` results per step).  The
         arrays of the result are then read-only, shared with the cache.  Not used for
         dask-backed `met`.
+    receptors : sequence of str, optional
+        Compute these receptors only (default: every receptor of `surfaces`); each
+        receptor's numbers are the same as in the whole calculation (the surface
+        around the wind mast is still taken from all of `surfaces`).
 
     Returns
     -------
@@ -483,10 +496,18 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
     """
     opt = options or DryOptions()
     _gas.get_scheme(opt.gas_scheme)
-    surf = surfaces.sel(site=met["site"].values)
-    receptors = [str(r) for r in surf["receptor"].values]
-    for r in receptors:
+    met_surf = surfaces.sel(site=met["site"].values)
+    every = [str(r) for r in met_surf["receptor"].values]
+    for r in every:
         landuse.check(r)
+    if receptors is None:
+        surf, receptors = met_surf, every
+    else:
+        receptors = [str(r) for r in receptors]
+        unknown = [r for r in receptors if r not in every]
+        if unknown:
+            raise ValueError(f"receptors {unknown} are not among the surfaces {every}")
+        surf = met_surf.sel(receptor=receptors)
     for name in ("wind_speed", "temperature", "relative_humidity", "solar_radiation",
                  "precipitation"):
         if name not in met:
@@ -506,10 +527,11 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         first = next(v for v in aug.data_vars.values() if v.chunks is not None)
         aug = aug.chunk(dict(zip(first.dims, first.chunks)))
         hourly = xr.map_blocks(_hourly, aug, kwargs={"surf": surf, "opt": opt,
-                                                     "receptors": receptors},
-                               template=_template(aug, surf, opt, receptors))
+                                                     "receptors": receptors,
+                                                     "met_surf": met_surf},
+                               template=_template(aug, surf, opt, receptors, met_surf))
     else:
-        hourly = _hourly(aug, surf, opt, receptors, cache)
+        hourly = _hourly(aug, surf, opt, receptors, cache, met_surf)
     _, d_r = _receptor_roughness(surf, receptors, opt)
     # Variables, added in one step (numpy sums in memory, dask sums when lazy)
     extra = {

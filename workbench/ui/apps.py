@@ -143,7 +143,7 @@ class SiteExplorer(widgets.VBox):
             w.observe(self._on_control, "value")
         self.site_w.observe(self._on_site, "value")
         self.years_w.observe(self._on_years, "value")
-        self.receptor_w.observe(self._on_view, "value")
+        self.receptor_w.observe(self._on_receptor, "value")
         self.unit_w.observe(self._on_view, "value")
         self.gas_w.observe(self._on_view, "value")
         self.tabs.observe(self._on_tab, "selected_index")
@@ -171,9 +171,10 @@ class SiteExplorer(widgets.VBox):
 
     def _run(self):
         """Run at monthly resolution while the monthly tab shows (it gives the years too),
-        else yearly only (faster)."""
+        else yearly only (faster); the receptor shown only (the numbers of the whole
+        run, a third of the work for three receptors)."""
         res = "month" if self._monthly_shown() else "year"
-        return self.session.run(self.settings, self.site, *self.years, res)
+        return self.session.run(self.settings, self.site, *self.years, res, self.receptor_w.value)
 
     def _current_totals(self):
         return mean_totals(self.result.years, self.site, self.receptor_w.value, None,
@@ -193,7 +194,7 @@ class SiteExplorer(widgets.VBox):
             return figures.budget_bars(r.years, site, rec, None, unit, **t)
         if name == "monthly fluxes":
             if r.options.get("resolution") != "month":
-                self.result = r = self.session.run(self.settings, site, *self.years, "month")
+                self.result = r = self.session.run(self.settings, site, *self.years, "month", rec)
             if template is None:
                 return figures.monthly_fluxes_spec(r.budget, site, rec, unit)
             return figures.monthly_fluxes(r.budget, site, rec, unit, **t)
@@ -287,9 +288,9 @@ class SiteExplorer(widgets.VBox):
 
     def _on_site(self, change):
         recs = self.session.receptors(self.site)
-        set_quietly(self.receptor_w, None, self._on_view)
+        set_quietly(self.receptor_w, None, self._on_receptor)
         self.receptor_w.options = recs
-        set_quietly(self.receptor_w, recs[0], self._on_view)
+        set_quietly(self.receptor_w, recs[0], self._on_receptor)
         for k, a in ASSUMPTIONS.items():
             if k.startswith("site."):
                 set_quietly(self.controls[k], a.get(self.settings, self.site), self._on_control)
@@ -299,6 +300,15 @@ class SiteExplorer(widgets.VBox):
     def _on_years(self, change):
         self._totals = None
         self.recompute("new years: computing their deposition velocities")
+
+    def _on_receptor(self, change):
+        """Another receptor: its budget is computed (the run holds the receptor shown)."""
+        if self.receptor_w.value is None:
+            return
+        if self.receptor_w.value in self.result.years["receptor"].values:
+            return self._on_view(change)
+        self._totals = None
+        self.recompute(f"computing the budget over {self.receptor_w.value}")
 
     def _on_view(self, change):
         if self.receptor_w.value is None:
