@@ -168,17 +168,17 @@ class SiteCatalogue:
                     if s.lai is not None:
                         lai[i, j] = s.lai
         ds = self.to_dataset()
-        ds = ds.assign_coords(receptor=receptors, month=np.arange(1, 13))
-        ds["active"] = (("site", "receptor"), active)
-        ds["is_site_surface"] = (("site", "receptor"), own)
-        ds["canopy_height"] = (("site", "receptor"), height, {"units": "m"})
-        ds["roughness_length"] = (("site", "receptor"), z0, {"units": "m",
-                                  "long_name": "roughness length override (NaN: from land use)"})
-        ds["displacement_height"] = (("site", "receptor"), d, {"units": "m",
-                                     "long_name": "displacement height override (NaN: from land use)"})
-        ds["lai"] = (("site", "receptor", "month"), lai, {"units": "m2 m-2",
-                     "long_name": "monthly leaf-area index (NaN: not given)"})
-        return ds
+        sr = ("site", "receptor")
+        return ds.assign_coords(receptor=receptors, month=np.arange(1, 13)).assign({
+            "active": xr.Variable(sr, active),
+            "is_site_surface": xr.Variable(sr, own),
+            "canopy_height": xr.Variable(sr, height, {"units": "m"}),
+            "roughness_length": xr.Variable(sr, z0, {
+                "units": "m", "long_name": "roughness length override (NaN: from land use)"}),
+            "displacement_height": xr.Variable(sr, d, {
+                "units": "m", "long_name": "displacement height override (NaN: from land use)"}),
+            "lai": xr.Variable(sr + ("month",), lai, {
+                "units": "m2 m-2", "long_name": "monthly leaf-area index (NaN: not given)"})})
 
 
 def _key_line(text_lines, block_starts, k, key):
