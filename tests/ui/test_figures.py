@@ -209,3 +209,24 @@ def test_hour_season_statistic_equals_pandas_groupby(how):
     np.testing.assert_array_equal(got["hour"].to_numpy(), ref["hour"].to_numpy())
     np.testing.assert_array_equal(got["n"].to_numpy(), ref["n"].to_numpy())
     np.testing.assert_allclose(got["value"].to_numpy(), ref["value"].to_numpy(), rtol=1e-13)
+
+
+def test_dry_figures_plot_the_rows_of_their_tables(result):
+    """Every plotted Vd and resistance is a row of diurnal_velocity / resistance_medians
+    (the tables the figures are documented by), on the demo run."""
+    vel, rec = result.velocities, str(result.velocities["receptor"].values[0])
+    t = summaries.diurnal_velocity(vel, "ridge", rec, list(figures_dry.DRY_SPECIES), 1.0)
+    fig = figures_dry.velocity_diurnal(vel, "ridge", rec, utc_offset_h=1.0)
+    seasons = ["DJF", "MAM", "JJA", "SON"]
+    for i, tr in enumerate(fig.data):
+        season = seasons[i % 4]
+        rows = t[(t["species"] == tr.name) & (t["season"] == season)]
+        np.testing.assert_array_equal(np.asarray(tr.x), rows["hour"].to_numpy())
+        np.testing.assert_allclose(np.asarray(tr.y, float), rows["value"].to_numpy(), rtol=1e-12)
+        np.testing.assert_array_equal(np.asarray(tr.customdata), rows["n"].to_numpy())
+    r = summaries.resistance_medians(vel, "ridge", rec, "NH3", 1.0)
+    fig = figures_dry.resistance_breakdown(vel, "ridge", rec, "NH3", 1.0)
+    names = list(figures_dry.RESISTANCE_NAMES)
+    for i, tr in enumerate(fig.data):
+        rows = r[(r["resistance"] == names[i // 4]) & (r["season"] == seasons[i % 4])]
+        np.testing.assert_allclose(np.asarray(tr.y, float), rows["value"].to_numpy(), rtol=1e-12)

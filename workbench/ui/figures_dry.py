@@ -15,7 +15,8 @@ from plotly.subplots import make_subplots
 
 from ..periods import SEASON_NAMES
 from .palette import RESISTANCE_COLOURS, SPECIES_COLOURS, TEMPLATE
-from .summaries import diurnal_velocity, resistance_medians
+from .summaries import (CM_PER_M, hour_season_slots, hourly_series, local_hour_and_season,
+                        slot_statistic)
 
 #: Species drawn by default (the budget's dry species).
 DRY_SPECIES = ("SO2", "HNO3", "NH3", "NO2", "pSO4", "pNO3", "pNH4")
@@ -47,19 +48,20 @@ def _season_panels_layout() -> tuple:
     return json.dumps(fig.layout.to_plotly_json()), tuple(axes)
 
 
-def _panels(traces_by_panel, utc_offset_h, y_axis: dict, title: str, legend: str) -> dict:
-    """Spec of the four season panels: traces given per panel, axes titled."""
+def _panels(traces, utc_offset_h, y_axis: dict, title: str, legend: str) -> dict:
+    """Spec of the four season panels from ``(panel index, trace)`` pairs (kept in
+    their order), axes titled."""
     base, axes = _season_panels_layout()
     layout = json.loads(base)
     data = []
-    for (xname, yname), traces in zip(axes, traces_by_panel):
-        for t in traces:
-            t.update(xaxis=xname.replace("axis", ""), yaxis=yname.replace("axis", ""))
-            data.append(t)
+    for col, t in traces:
+        xname, yname = axes[col]
+        t.update(xaxis=xname.replace("axis", ""), yaxis=yname.replace("axis", ""))
+        data.append(t)
+    for xname, yname in axes:
         layout[xname].update(range=[0, 23], dtick=6)
-    layout[axes[0][0]]["title"] = {"text": _local(utc_offset_h)}
-    for _, yname in axes:
         layout[yname].update(y_axis.get("all", {}))
+    layout[axes[0][0]]["title"] = {"text": _local(utc_offset_h)}
     layout[axes[0][1]].update(y_axis.get("first", {}))
     layout.update(title={"text": title}, height=HEIGHT, legend={"title": {"text": legend}})
     return {"data": data, "layout": layout}
@@ -69,25 +71,49 @@ def _finite(values):
     return [float(v) if np.isfinite(v) else None for v in np.asarray(values, float)]
 
 
+def _slots(vel, utc_offset_h):
+    hour, season = local_hour_and_season(vel["time"].values, utc_offset_h)
+    return hour_season_slots(hour, season)
+
+
+def _season_traces(value, n, make):
+    """One trace per season from 96 slot values: ``make(col, season, hours, values, n)``."""
+    out = []
+    for col, season in enumerate(SEASON_NAMES):
+        sl = slice(24 * col, 24 * col + 24)
+        keep = n[sl] > 0
+        out.append(make(col, season, np.flatnonzero(keep).tolist(), value[sl][keep],
+                        n[sl][keep].tolist()))
+    return out
+
+
 def velocity_diurnal_spec(vel, site, receptor, species=DRY_SPECIES, utc_offset_h=0.0) -> dict:
-    """The figure of :func:`velocity_diurnal` as plain plotly JSON (no template)."""
-    t = diurnal_velocity(vel, site, receptor, list(species), utc_offset_h)
-    panels = [[] for _ in SEASON_NAMES]
+    """The figure of :func:`velocity_diurnal` as plain plotly JSON (no template).
+
+    The numbers are those of :func:`workbench.ui.summaries.diurnal_velocity`, computed
+    here from the same slot statistics without the table.
+    """
+    get = hourly_series(vel, site, receptor)
+    slot = _slots(vel, utc_offset_h)
+    traces = []
     for sp in species:
-        g_sp = t[t["species"] == sp]
-        if g_sp.empty:
+        if f"vd_{sp}" not in vel:
             continue
-        for col, season in enumerate(SEASON_NAMES):
-            g = g_sp[g_sp["season"] == season]
-            panels[col].append({
-                "type": "scatter", "x": g["hour"].tolist(), "y": _finite(g["value"]),
+        value, n = slot_statistic(get(f"vd_{sp}") * CM_PER_M, slot, "mean")
+        if not n.any():
+            continue
+
+        def make(col, season, hours, values, counts, sp=sp):
+            return {
+                "type": "scatter", "x": hours, "y": _finite(values),
                 "mode": "lines", "name": sp, "legendgroup": sp, "showlegend": col == 0,
                 "line": {"color": SPECIES_COLOURS.get(sp),
                          "dash": "dot" if sp.startswith("p") else "solid"},
-                "customdata": g["n"].tolist(),
+                "customdata": counts,
                 "hovertemplate": (f"{sp} {season} %{{x}} h: %{{y:.3g}} cm s-1"
-                                  "<br>mean of %{customdata} hours<extra></extra>")})
-    return _panels(panels, utc_offset_h,
+                                  "<br>mean of %{customdata} hours<extra></extra>")}
+        traces.extend(enumerate(_season_traces(value, n, make)))
+    return _panels(traces, utc_offset_h,
                    {"first": {"title": {"text": "mean Vd [cm s-1]"}, "rangemode": "tozero"}},
                    f"Deposition velocity, mean diurnal cycle · {site} · {receptor}", "species")
 
@@ -114,21 +140,28 @@ def velocity_diurnal(vel, site, receptor, species=DRY_SPECIES, utc_offset_h=0.0,
 
 
 def resistance_breakdown_spec(vel, site, receptor, gas="SO2", utc_offset_h=0.0) -> dict:
-    """The figure of :func:`resistance_breakdown` as plain plotly JSON (no template)."""
-    t = resistance_medians(vel, site, receptor, gas, utc_offset_h)
-    panels = [[] for _ in SEASON_NAMES]
+    """The figure of :func:`resistance_breakdown` as plain plotly JSON (no template).
+
+    The numbers are those of :func:`workbench.ui.summaries.resistance_medians`.
+    """
+    get = hourly_series(vel, site, receptor)
+    slot = _slots(vel, utc_offset_h)
+    parts = {"ra": get("ra"), "rb": get(f"rb_{gas}"), "rc": get(f"rc_{gas}")}
+    parts["total"] = parts["ra"] + parts["rb"] + parts["rc"]
+    traces = []
     for name, label in RESISTANCE_NAMES.items():
-        g_r = t[t["resistance"] == name]
-        for col, season in enumerate(SEASON_NAMES):
-            g = g_r[g_r["season"] == season]
-            panels[col].append({
-                "type": "scatter", "x": g["hour"].tolist(),
-                "y": [float(v) if np.isfinite(v) and v > 0 else None for v in g["value"]],
+        value, n = slot_statistic(parts[name], slot, "median")
+
+        def make(col, season, hours, values, counts, name=name, label=label):
+            return {
+                "type": "scatter", "x": hours,
+                "y": [float(v) if np.isfinite(v) and v > 0 else None for v in values],
                 "mode": "lines", "name": label, "legendgroup": name, "showlegend": col == 0,
                 "line": {"color": RESISTANCE_COLOURS[name], "width": 3 if name == "total" else 2,
                          "dash": "dash" if name == "total" else "solid"},
-                "hovertemplate": f"{label} {season} %{{x}} h: median %{{y:.3g}} s m-1<extra></extra>"})
-    return _panels(panels, utc_offset_h,
+                "hovertemplate": f"{label} {season} %{{x}} h: median %{{y:.3g}} s m-1<extra></extra>"}
+        traces.extend(enumerate(_season_traces(value, n, make)))
+    return _panels(traces, utc_offset_h,
                    {"all": {"type": "log"},
                     "first": {"title": {"text": "median resistance [s m-1]"}}},
                    f"Resistances of {gas} (medians by hour) · {site} · {receptor}", "resistance")

@@ -205,39 +205,64 @@ def local_hour_and_season(times, utc_offset_h: float):
     return local.hour.to_numpy(), MONTH_SEASON[local.month.to_numpy()]
 
 
-def _by_hour_season(values: np.ndarray, hour, season, how: str):
-    """Statistic of `values` per (season, hour): DataFrame season, hour, value, n.
+def hour_season_slots(hour, season) -> np.ndarray:
+    """Slot of each hour: season index (order of ``SEASON_NAMES``) x 24 + hour; -1 where
+    the season is unknown."""
+    s_idx = pd.Index(SEASON_NAMES).get_indexer(np.asarray(season))
+    return np.where(s_idx >= 0, s_idx * 24 + np.asarray(hour), -1)
 
-    NaN values are left out; slots without a value are not listed (as a pandas
-    groupby does).  Numpy throughout (bincount for the mean, one sort for the median:
-    the middle value, or the mean of the two middle values).
+
+def slot_statistic(values, slot, how: str):
+    """Mean or median of `values` per (season, hour) slot, NaN left out.
+
+    Parameters
+    ----------
+    values : ndarray
+        One value per hour (any unit; the result has the same).
+    slot : ndarray of int
+        From :func:`hour_season_slots`.
+    how : {"mean", "median"}
+        The median of an even count is the mean of the two middle values.
+
+    Returns
+    -------
+    value, n : ndarray (96,)
+        The statistic (NaN where a slot has no value) and the number of values.
     """
     values = np.asarray(values, dtype=float)
-    s_idx = pd.Index(SEASON_NAMES).get_indexer(np.asarray(season))
-    slot = s_idx * 24 + np.asarray(hour)
-    ok = np.isfinite(values) & (s_idx >= 0)
+    ok = np.isfinite(values) & (slot >= 0)
     v, sl = values[ok], slot[ok]
     n_slots = len(SEASON_NAMES) * 24
     n = np.bincount(sl, minlength=n_slots)
     if how == "median":
-        order = np.lexsort((v, sl))
-        vs = v[order]
+        if not len(v):
+            return np.full(n_slots, np.nan), n
+        vs = v[np.lexsort((v, sl))]
         first = np.concatenate([[0], np.cumsum(n)[:-1]])
-        lo = np.clip(first + (n - 1) // 2, 0, max(len(vs) - 1, 0))
-        hi = np.clip(first + n // 2, 0, max(len(vs) - 1, 0))
-        value = 0.5 * (vs[lo] + vs[hi]) if len(vs) else np.full(n_slots, np.nan)
+        lo = np.clip(first + (n - 1) // 2, 0, len(vs) - 1)
+        hi = np.clip(first + n // 2, 0, len(vs) - 1)
+        value = 0.5 * (vs[lo] + vs[hi])
     elif how == "mean":
         value = np.bincount(sl, weights=v, minlength=n_slots) / np.maximum(n, 1)
     else:
         raise ValueError(f"unknown statistic {how!r}")
-    keep = n > 0
-    idx = np.flatnonzero(keep)
+    return np.where(n > 0, value, np.nan), n
+
+
+def _by_hour_season(values: np.ndarray, hour, season, how: str):
+    """Statistic of `values` per (season, hour): DataFrame season, hour, value, n.
+
+    NaN values are left out; slots without a value are not listed (as a pandas
+    groupby does).  See :func:`slot_statistic`.
+    """
+    value, n = slot_statistic(values, hour_season_slots(hour, season), how)
+    idx = np.flatnonzero(n > 0)
     return pd.DataFrame({
         "season": pd.Categorical(np.asarray(SEASON_NAMES)[idx // 24], SEASON_NAMES, ordered=True),
-        "hour": idx % 24, "value": value[keep], "n": n[keep]})
+        "hour": idx % 24, "value": value[idx], "n": n[idx]})
 
 
-def _series(vel: xr.Dataset, site, receptor):
+def hourly_series(vel: xr.Dataset, site, receptor):
     """``get(name)``: the hourly values of a (site, receptor, time) variable of one site
     and receptor, without ``Dataset.sel`` (which indexes every variable)."""
     i_site = vel.indexes["site"].get_loc(site)
@@ -271,7 +296,7 @@ def diurnal_velocity(vel: xr.Dataset, site, receptor, species, utc_offset_h=0.0)
     pandas.DataFrame
         ``species, season, hour, value`` [cm s-1], ``n`` (hours averaged).
     """
-    get = _series(vel, site, receptor)
+    get = hourly_series(vel, site, receptor)
     hour, season = local_hour_and_season(vel["time"].values, utc_offset_h)
     parts = []
     for sp in species:
@@ -298,7 +323,7 @@ def resistance_medians(vel: xr.Dataset, site, receptor, gas, utc_offset_h=0.0) -
         ``resistance`` (``ra``, ``rb``, ``rc``, ``total``), ``season, hour, value``
         [s m-1], ``n``.
     """
-    get = _series(vel, site, receptor)
+    get = hourly_series(vel, site, receptor)
     hour, season = local_hour_and_season(vel["time"].values, utc_offset_h)
     parts = {"ra": get("ra"), "rb": get(f"rb_{gas}"), "rc": get(f"rc_{gas}")}
     parts["total"] = parts["ra"] + parts["rb"] + parts["rc"]
