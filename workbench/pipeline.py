@@ -64,15 +64,15 @@ def _key(obj) -> str:
     return json.dumps(obj, sort_keys=True, default=str)
 
 
-def _digest(da: xr.DataArray) -> str:
-    """Digest of a DataArray's values and coordinates (a content key for caches)."""
+def _digest(obj) -> str:
+    """Digest of the values of a DataArray or Dataset and of its coordinates (a content
+    key for caches)."""
     h = hashlib.blake2b(digest_size=16)
-    for name, c in da.coords.items():
-        h.update(str(name).encode())
+    for name, c in obj.variables.items() if isinstance(obj, xr.Dataset) else \
+            list(obj.coords.variables.items()) + [("", obj.variable)]:
+        h.update(str(name).encode() + str(c.dims).encode())
         h.update(np.ascontiguousarray(c.values).astype(str if c.dtype == object else c.dtype)
                  .tobytes())
-    h.update(str(da.dims).encode())
-    h.update(np.ascontiguousarray(da.values).tobytes())
     return h.hexdigest()
 
 
@@ -270,7 +270,14 @@ class Study:
         memo = self._memo.setdefault("digest", {})
         key = (id(vd), sp)
         if key not in memo:
-            memo[key] = (_digest(vd[f"vd_{sp}"]), vd)   # the Dataset held: its id stays unique
+            axes = memo.get((id(vd), None))
+            if axes is None:                             # the axes once per Dataset
+                axes = memo[(id(vd), None)] = (_digest(vd[f"vd_{sp}"].coords.to_dataset()), vd)
+            h = hashlib.blake2b(axes[0].encode(), digest_size=16)
+            v = vd.variables[f"vd_{sp}"]
+            h.update(str(v.dims).encode())
+            h.update(np.ascontiguousarray(v.values).tobytes())
+            memo[key] = (h.hexdigest(), vd)              # the Dataset held: its id stays unique
             while len(memo) > 16 * len(COMPONENTS):
                 memo.pop(next(iter(memo)))
         return memo[key][0]

@@ -79,6 +79,7 @@ def test_a_new_receptor_is_computed_once_and_the_wet_chain_not_at_all(app):
     """The explorer computes the receptor it shows: another receptor is computed on
     first view (its velocities; the screening and the wet chain are reused), and
     coming back to one seen before computes nothing."""
+    app.controls["dry.wetness_rule"].value = "always_dry"   # settings no other test runs
     first = app.receptor_w.value
     other = next(r for r in app.receptor_w.options if r != first)
     counts = dict(app.study.counts)
@@ -96,6 +97,7 @@ def test_a_new_receptor_is_computed_once_and_the_wet_chain_not_at_all(app):
     t = mean_totals(app.result.years, app.site, other, None, app.unit_w.value)
     assert total == pytest.approx(t.loc["S_total", "value"], rel=1e-9)
     app.receptor_w.value = first
+    app.reset()
 
 
 def test_fixed_velocity_what_if_is_linear_and_equals_c_times_vd(app):
