@@ -140,9 +140,25 @@ def main(argv=None):
                      "cold_best_ms": 1e3 * min(cold) if cold else None,
                      "warm_median_ms": 1e3 * statistics.median(warm) if warm else None,
                      "cached_run_ms": 1e3 * statistics.median(run_s)})
+    # view changes: a receptor not shown before (its budget is computed), back to one
+    # seen (cached), and the unit (figures only)
+    views = {}
+    recs = list(app.receptor_w.options)
+    first = app.receptor_w.value
+    for label, target in (("receptor, first view", recs[-1]), ("receptor, seen before", first),
+                          ("receptor, seen before (2)", recs[-1])):
+        t0 = time.perf_counter()
+        app.receptor_w.value = target
+        views[label] = 1e3 * (time.perf_counter() - t0)
+    app.receptor_w.value = first
+    t0 = time.perf_counter()
+    app.unit_w.value = "eq/ha/yr"
+    views["unit"] = 1e3 * (time.perf_counter() - t0)
+    app.unit_w.value = "kg/ha/yr"
     out = {"machine": machine(), "scenario": args.scenario, "site": args.site, "year": args.year,
            "tab": args.tab, "open_s": t_open, "first_run_s": t_first,
-           "redraw_ms": 1e3 * t_redraw, "cached_run_ms": 1e3 * t_cached, "cases": rows}
+           "redraw_ms": 1e3 * t_redraw, "cached_run_ms": 1e3 * t_cached, "cases": rows,
+           "views_ms": views}
     print(f"machine: {out['machine']}")
     print(f"scenario {args.scenario}, site {args.site}, year {args.year}, tab '{args.tab}'")
     print(f"open (read inputs): {t_open:.1f} s; explorer with first run: {t_first:.1f} s")
@@ -155,6 +171,7 @@ def main(argv=None):
         cs = f"{c:8.0f} {c / (1e3 * TARGET_S):8.1f}" if c is not None else f"{'-':>8s} {'-':>8s}"
         ws = f"{w:8.0f} {w / (1e3 * TARGET_S):8.1f}" if w is not None else f"{'-':>8s} {'-':>8s}"
         print(f"{r['assumption']:32s} {r['stage']:6s} {cs} {ws}")
+    print("view changes [ms]: " + ", ".join(f"{k} {v:.0f}" for k, v in views.items()))
     worst = max((r["cold_median_ms"] or 0) for r in rows)
     print(f"slowest cold median: {worst:.0f} ms = {worst / (1e3 * TARGET_S):.2f} x the target")
     if args.json:

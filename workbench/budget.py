@@ -248,15 +248,15 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     if wet is not None:
         w = wet if _same_axis(wet, "site", sites) and _same_axis(wet, "period", labels) else \
             wet.reindex(site=sites, period=labels)
-        w_status = w["status"].values.astype(object)
+        w_status = w.variables["status"].values.astype(object)
         w_status = np.where(pd.isna(w_status), "missing", w_status)
-        w_frac = np.fmin(np.fmin(w["gauge_fraction"].values, w["coverage_fraction"].values),
-                         w["valid_precip_fraction"].values)
+        w_frac = np.fmin(np.fmin(w.variables["gauge_fraction"].values, w.variables["coverage_fraction"].values),
+                         w.variables["valid_precip_fraction"].values)
     if dry is not None:
         dr = dry if _same_axis(dry, "receptor", receptors) else dry.reindex(receptor=list(receptors))
-        d_species = list(dr["species"].values)
-        d_dep, d_cov = dr["deposition"].values, dr["coverage"].values
-        d_vdc, d_fs, d_meas = dr["vd_coverage"].values, dr["vd_filled_share"].values, dr["measured"].values
+        d_species = list(dr.variables["species"].values)
+        d_dep, d_cov = dr.variables["deposition"].values, dr.variables["coverage"].values
+        d_vdc, d_fs, d_meas = dr.variables["vd_coverage"].values, dr.variables["vd_filled_share"].values, dr.variables["measured"].values
         d_sok = _season_ok(dry, season_cov, periods, options)
     for j, (el, path, sp) in enumerate(comps):
         if path == "wet":
@@ -266,7 +266,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                                       and "dep_nssSO4" in wet) else f"dep_{sp}"
             if name not in wet:
                 continue
-            d = w[name].values.astype(float)
+            d = w.variables[name].values.astype(float)
             if options.bulk_correction == "scale_wet":
                 d = np.where(bulk[:, None], d * options.bulk_wet_factor, d)
             dep[:, :, :, j] = d[:, None, :]
@@ -275,7 +275,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             for name, var in (("wet_gauge_fraction", "gauge_fraction"),
                               ("wet_coverage_fraction", "coverage_fraction"),
                               ("wet_valid_precip_fraction", "valid_precip_fraction")):
-                fractions[name][:, :, :, j] = w[var].values[:, None, :]
+                fractions[name][:, :, :, j] = w.variables[var].values[:, None, :]
             if options.bulk_correction == "scale_wet" and bulk.any():
                 comp_note[bulk, :, :, j] = (f"bulk deposition x {options.bulk_wet_factor:g} "
                                             "(bulk_correction scale_wet)")
@@ -346,7 +346,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
         data["air_concentration"] = xr.Variable(
             tuple("air_species" if d == "species" else d for d in conc.dims), conc.values,
             conc.attrs)
-        coords["air_species"] = dr["species"].values
+        coords["air_species"] = dr.variables["species"].values
     ds = xr.Dataset(data, coords=coords)               # built once (each assign aligns)
     ds.attrs.update({"options": json.dumps(options.to_dict(), sort_keys=True),
                      "notes": json.dumps(notes),

@@ -17,7 +17,8 @@ import pandas as pd
 import xarray as xr
 
 from .budget import COMPONENTS, PAIRS, BudgetError, BudgetOptions
-from .dryflux import _cumulative, _hour_bounds, _inputs_for, deposition_rows, fill_diurnal, period_mean, share_to_periods
+from .dryflux import (_cumulative, _hour_bounds, _inputs_for, deposition_rows, fill_diurnal,
+                      period_axes, period_mean, share_to_periods)
 
 #: Shares of rows among periods kept by :func:`dry_components` (small arrays each).
 AGG_ENTRIES = 512
@@ -248,8 +249,9 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
     vd_cov = np.full((n_s, n_r, n_p, n_k), np.nan)
     filled_share = np.full((n_s, n_r, n_p, n_k), np.nan)
     conc = np.full((n_s, n_p, n_k), np.nan)
-    pa, pb = _hour_bounds(times, periods["start"].values, periods["end"].values)
-    hours_p = periods["hours"].to_numpy(dtype=float)
+    axes = period_axes(periods)                 # the columns read once
+    pa, pb = _hour_bounds(times, axes.start, axes.end)
+    hours_p = axes.hours
 
     labels = tuple(periods["label"])
 
@@ -258,7 +260,7 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
         if memo is not None and key in memo:
             return memo[key][0]
         out = share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"], r["cs"],
-                               n_s, periods, times, r["start"], r["end"])
+                               n_s, axes, times, r["start"], r["end"])
         if memo is not None:
             memo[key] = (out, r)                      # the rows held: their id stays unique
             while len(memo) > AGG_ENTRIES:
@@ -272,7 +274,7 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
         d, c, _ = agg(r)
         dep[..., k], cov[..., k] = d, c
         if r.get("quantity") == "amount_density":
-            conc[..., k] = period_mean(r["site_index"], r["start"], r["end"], r["conc"], n_s, periods)
+            conc[..., k] = period_mean(r["site_index"], r["start"], r["end"], r["conc"], n_s, axes)
         c_valid, c_fill = rows["vd_cum"][sp]
         vd_cov[..., k] = (c_valid[:, :, pb] - c_valid[:, :, pa]) / hours_p
         filled_share[..., k] = (c_fill[:, :, pb] - c_fill[:, :, pa]) / np.maximum(pb - pa, 1)
@@ -284,11 +286,12 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
          "measured": (("site", "species"), rows["measured"]),
          "concentration": (("site", "period", "species"), conc,
                            {"units": "mol m-3", "long_name": "time-weighted mean concentration "
-                            "over the covered hours (amount of species; ambient)"})},
+                            "over the covered hours (amount of species; ambient)"}),
+         **{f"bracket_{pair}_{how}": (("site", "receptor", "period"), agg(r)[0],
+                                      {"units": "mol m-2"})
+            for (pair, how), r in rows["bracket"].items()}},
         coords={"site": sites, "receptor": receptors, "period": periods["label"].values,
                 "species": species_list})
-    for (pair, how), r in rows["bracket"].items():
-        ds[f"bracket_{pair}_{how}"] = (("site", "receptor", "period"), agg(r)[0], {"units": "mol m-2"})
     return ds
 
 

@@ -80,7 +80,7 @@ def fill_diurnal(vd: xr.DataArray, min_slot_hours: int = MIN_SLOT_HOURS):
         True where a value was filled.
     """
     other = [d for d in vd.dims if d != "time"]
-    v = vd.transpose(*other, "time")
+    v = vd if vd.dims[-1] == "time" else vd.transpose(*other, "time")
     arr = np.asarray(v.values, dtype=float)
     shape = arr.shape
     rows = arr.reshape(-1, shape[-1])
@@ -110,8 +110,10 @@ def fill_diurnal(vd: xr.DataArray, min_slot_hours: int = MIN_SLOT_HOURS):
         fill = np.where(np.isfinite(fill_y), fill_y, fill_a)
         out = np.where(valid, rows, fill)
         was = ~valid & np.isfinite(out)
-    filled = v.copy(data=out.reshape(shape)).transpose(*vd.dims)
-    was_filled = v.copy(data=was.reshape(shape)).transpose(*vd.dims)
+    filled = v.copy(deep=False, data=out.reshape(shape))
+    was_filled = v.copy(deep=False, data=was.reshape(shape))
+    if v is not vd:
+        filled, was_filled = filled.transpose(*vd.dims), was_filled.transpose(*vd.dims)
     filled.attrs = dict(vd.attrs)
     return filled, was_filled
 
@@ -334,7 +336,29 @@ def period_deposition(air: xr.Dataset, species: str, vd: xr.DataArray, met: xr.D
     return ds, r["cs"]
 
 
-def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods: pd.DataFrame, times,
+@dataclass(frozen=True)
+class PeriodAxes:
+    """The arrays of a period table that the numpy cores read: ``start``, ``end``
+    (datetime64[ns]) and ``hours`` [h].  Made once by :func:`period_axes` where the
+    cores are called many times (a DataFrame column read costs tens of microseconds)."""
+
+    start: np.ndarray
+    end: np.ndarray
+    hours: np.ndarray
+
+    def __len__(self):
+        return len(self.start)
+
+
+def period_axes(periods) -> PeriodAxes:
+    """:class:`PeriodAxes` of a period table (a PeriodAxes passes through)."""
+    if isinstance(periods, PeriodAxes):
+        return periods
+    return PeriodAxes(periods["start"].values, periods["end"].values,
+                      periods["hours"].to_numpy(dtype=float))
+
+
+def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
                      starts=None, ends=None):
     """Numpy core of :func:`to_periods`.
 
@@ -347,7 +371,7 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods: pd.Data
     cs : ndarray (S, R, T + 1)
         Cumulative effective Vd.
     n_sites : int
-    periods : pandas.DataFrame
+    periods : pandas.DataFrame or PeriodAxes
     times : ndarray of datetime64 (T,)
     starts, ends : ndarray of datetime64 (n,), optional
         The sampling periods' real bounds.  Where a period reaches beyond the hour axis
@@ -361,8 +385,9 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods: pd.Data
     coverage : ndarray (S, P) [1]
     covered_hours : ndarray (S, P) [h]
     """
+    periods = period_axes(periods)
     n_r, n_p = cs.shape[1], len(periods)
-    p_start, p_end = periods["start"].values, periods["end"].values
+    p_start, p_end = periods.start, periods.end
     pa, pb = _hour_bounds(times, p_start, p_end)
     dep_out = np.zeros((n_sites, n_r, n_p))
     cov_hours = np.zeros((n_sites, n_p))
@@ -393,7 +418,7 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods: pd.Data
         np.add.at(acc, site_index, dep)
         dep_out = acc.transpose(0, 2, 1)
         np.add.at(cov_hours, site_index, ov)
-    period_hours = periods["hours"].to_numpy(dtype=float)
+    period_hours = periods.hours
     with np.errstate(invalid="ignore", divide="ignore"):
         scale = np.where(cov_hours > 0, period_hours[None, :] / cov_hours, np.nan)
     coverage = np.clip(cov_hours / np.maximum(period_hours[None, :], 1), 0, 1)
@@ -448,7 +473,7 @@ def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
     )
 
 
-def period_mean(site_index, starts, ends, values, n_sites, periods: pd.DataFrame):
+def period_mean(site_index, starts, ends, values, n_sites, periods):
     """Time-weighted mean of interval values (concentrations) over reporting periods.
 
     Parameters
@@ -458,16 +483,17 @@ def period_mean(site_index, starts, ends, values, n_sites, periods: pd.DataFrame
     values : ndarray (n,)
         E.g. concentrations [mol m-3].
     n_sites : int
-    periods : pandas.DataFrame
+    periods : pandas.DataFrame or PeriodAxes
 
     Returns
     -------
     ndarray (S, P)
         Mean over the covered hours of each period (NaN where none), same unit.
     """
+    periods = period_axes(periods)
     hour = np.timedelta64(1, "h")
-    ov = np.clip((np.minimum(ends[:, None], periods["end"].values[None, :])
-                  - np.maximum(starts[:, None], periods["start"].values[None, :])) / hour, 0, None)
+    ov = np.clip((np.minimum(ends[:, None], periods.end[None, :])
+                  - np.maximum(starts[:, None], periods.start[None, :])) / hour, 0, None)
     ok = np.isfinite(values)
     w = np.where(ok[:, None], ov, 0.0)
     num = np.zeros((n_sites, len(periods)))
