@@ -146,18 +146,20 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=Non
     any_vd = next(iter(vel.values()))[0]
     times = any_vd["time"].values
     sites = list(sites)
-    if "air" not in memo:
+    shared = memo if shared is None else shared
+    fkey = repr(fopt)
+    # the air as the budget options prepare it (the same for any Vd): kept with the
+    # shared entries, keyed by the options and the identity of the air Dataset
+    akey = ("air", id(air), options.sulfate_basis, options.pair_split)
+    if akey not in shared:
         prepared = _nss_particles(air, options.sulfate_basis)
         if options.pair_split != "measured":
             for pair, (gas, part) in PAIRS.items():
                 if gas in prepared and part in prepared:
                     prepared = _pair_air(prepared, pair,
                                          gas if options.pair_split == "all_gas" else part)
-        memo["air"] = prepared
-    air = memo["air"]
-
-    shared = memo if shared is None else shared
-    fkey = repr(fopt)
+        shared[akey] = (prepared, air)                  # the input held: its id stays unique
+    raw_air, air = air, shared[akey][0]
 
     def arrays(sp):
         key = ("arrays", sp, id(vel[sp]), tuple(sites))
@@ -209,10 +211,11 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=Non
             for how, into in (("all_gas", gas), ("all_particle", part)):
                 bkey = ("bracket", pair, how, id(vel[gas]), id(vel[part]))
                 if bkey not in memo:
-                    akey = ("pair_air", pair, into)
-                    if akey not in memo:
-                        memo[akey] = _pair_air(air, pair, into)
-                    memo[bkey] = one(memo[akey], into, into, bkey)[0]
+                    pkey = ("pair_air", id(raw_air), options.sulfate_basis, options.pair_split,
+                            pair, into)
+                    if pkey not in shared:
+                        shared[pkey] = (_pair_air(air, pair, into), raw_air)
+                    memo[bkey] = one(shared[pkey][0], into, into, bkey)[0]
                 out["bracket"][(pair, how)] = memo[bkey]
     out["measured"] = np.stack(
         [np.isin(sites, np.unique(air["site"].values[np.isfinite(air[sp].values)]))
