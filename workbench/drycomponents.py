@@ -174,9 +174,15 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=Non
                            _cumulative(was_np.astype(float)), vel[sp])
         return shared[key]
 
+    def fingerprint(air_in, sp):
+        key = ("fingerprint", id(air_in), sp)
+        if key not in shared:
+            shared[key] = (_fingerprint(air_in, sp), air_in)   # held: the id stays unique
+        return shared[key][0]
+
     def inputs(air_in, sp, vd):
         """The air side of a species' rows (independent of Vd), keyed by content."""
-        key = ("inputs", sp, tuple(sites), len(times), fkey, _fingerprint(air_in, sp))
+        key = ("inputs", sp, tuple(sites), len(times), fkey, fingerprint(air_in, sp))
         if key not in shared:
             rows, site_of, conc, _, quantity, weight, n_air, notes = _inputs_for(
                 air_in, sp, vd, met, fopt)
@@ -186,7 +192,7 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=Non
         return shared[key]
 
     def one(air_in, sp, vd_sp, key):
-        key = ("rows", sp, id(vel[vd_sp]), tuple(sites), fkey, _fingerprint(air_in, sp))
+        key = ("rows", sp, id(vel[vd_sp]), tuple(sites), fkey, fingerprint(air_in, sp))
         if key not in shared:
             vd, v_np = arrays(vd_sp)[:2]
             _, si, conc, quantity, weight, n_air, notes, t0, t1 = inputs(air_in, sp, vd)

@@ -313,7 +313,11 @@ class Study:
     def season_coverage(self, dry_options, budget_options, years, fixed_velocity=None,
                         overrides=None, receptors=None):
         """(site, year, species): every season has concentrations in that year."""
-        months = _periods.make_periods(years["start"].values[0], years["end"].values[-1], "month")
+        mkey = ("season months", str(years["start"].values[0]), str(years["end"].values[-1]))
+        if mkey not in self._cache:
+            self._cache[mkey] = _periods.make_periods(years["start"].values[0],
+                                                      years["end"].values[-1], "month")
+        months = self._cache[mkey]
         dry_m, _ = self.dry(dry_options, budget_options, months, fixed_velocity, overrides,
                             receptors)
         if dry_m is None:
