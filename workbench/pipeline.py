@@ -81,7 +81,7 @@ class Result:
     """Everything one run produces.
 
     ``table`` (the budget.csv rows) and ``derived`` are built on first use, so that the
-    apps, which draw from the Datasets, do not pay for them on every change.  The
+    apps, which draw from the Datasets, do not pay for them on every change.  Most
     arrays of ``velocities`` are shared with the study's caches and read-only; take a
     ``.copy()`` of the Dataset to change values in place.
     """
@@ -90,7 +90,7 @@ class Result:
     years: xr.Dataset             #: the same for calendar years
     screened: xr.Dataset | None   #: per-sample QA
     wet: xr.Dataset | None        #: wet chain at the resolution
-    velocities: xr.Dataset | None  #: hourly Ra, Rb, Rc, Vd (read-only arrays: ``.copy()`` to edit)
+    velocities: xr.Dataset | None  #: hourly Ra, Rb, Rc, Vd (arrays may be read-only: ``.copy()``)
     periods: pd.DataFrame
     options: dict = field(default_factory=dict)
     notes: list = field(default_factory=list)
