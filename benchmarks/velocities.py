@@ -56,6 +56,7 @@ def _clocked(module, name, marks, key, accumulate=False):
 
 def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--scenario", default=str(ROOT / "demo_data" / "scenario.toml"))
     ap.add_argument("--site", default="ridge")
     ap.add_argument("--year", type=int, default=2021)
     ap.add_argument("--repeat", type=int, default=7)
@@ -66,7 +67,7 @@ def main(argv=None):
     from workbench.drydep import gas
     from workbench.ui.session import Session
 
-    session = Session.open(ROOT / "demo_data" / "scenario.toml")
+    session = Session.open(args.scenario)
     study = session.study_for(args.site, args.year, args.year)
     met = study.inputs.met.load()
     surf = study.catalogue().surfaces()
