@@ -70,3 +70,26 @@ def test_refresh_replaces_traces_of_another_kind_and_keeps_shapes_in_step():
     out = refresh(w, {"data": [{"type": "bar", "y": [1, 2]}, {"type": "bar", "y": [2, 1]}],
                       "layout": {}})
     assert out["replaced"] and [t.type for t in w.data] == ["bar", "bar"]
+
+
+def test_qa_figures_refresh_to_what_a_fresh_figure_shows(session, result):
+    """The precipitation-QA figures through the diff path: the widget reads back what
+    a figure built from scratch by plotly shows, for other screening options."""
+    import dataclasses
+    from workbench.ui import figures_wet
+    wet = session.baseline.wet
+    strict = dataclasses.replace(wet, ion_balance_tiers=((50.0, 5.0), (float("inf"), 2.0)))
+    for build, spec in ((figures_wet.ion_balance, figures_wet.ion_balance_spec),
+                        (figures_wet.capture_efficiency, figures_wet.capture_efficiency_spec)):
+        w = figure_widget(build(result.screened, "ridge", wet))
+        refresh(w, spec(result.screened, "ridge", strict))
+        fresh = build(result.screened, "ridge", strict)
+        for a, b in zip(w.data, fresh.data):
+            assert a.name == b.name
+            np.testing.assert_allclose(np.asarray(a.x, float), np.asarray(b.x, float))
+            np.testing.assert_allclose(np.asarray(a.y, float), np.asarray(b.y, float))
+    w = figure_widget(figures_wet.excluded_by_reason(result.screened, "ridge"))
+    refresh(w, figures_wet.excluded_by_reason_spec(result.screened, "ridge", "2021-06-01"))
+    fresh = figures_wet.excluded_by_reason(result.screened, "ridge", "2021-06-01")
+    assert [list(t.x) for t in w.data] == [list(t.x) for t in fresh.data]
+    assert w.layout.height == fresh.layout.height

@@ -184,7 +184,7 @@ class SiteExplorer(widgets.VBox):
     def _figure(self, name, template=None):
         """The figure of a tab: a plotly Figure with `template` (to create a widget), or
         for updates (no template: the widget keeps the one it was created with) the
-        figure's plain JSON spec where the figure module has one (budget, monthly)."""
+        figure's plain JSON spec."""
         t = {"template": template}
         r, site, rec, unit = self.result, self.site, self.receptor_w.value, self.unit_w.value
         off = self.session.utc_offset(site)
@@ -211,14 +211,21 @@ class SiteExplorer(widgets.VBox):
                 return figures_dry.resistance_breakdown_spec(r.velocities, site, rec,
                                                              self.gas_w.value, off)
             return figures_dry.resistance_breakdown(r.velocities, site, rec, self.gas_w.value, off, **t)
+        bounds = self.session.bounds(*self.years)
+        spec = template is None
         if name == "ion balance":
-            return figures_wet.ion_balance(r.screened, site, self.settings.wet,
-                                           *self.session.bounds(*self.years), **t)
+            if spec:
+                return figures_wet.ion_balance_spec(r.screened, site, self.settings.wet, *bounds)
+            return figures_wet.ion_balance(r.screened, site, self.settings.wet, *bounds, **t)
         if name == "capture efficiency":
-            return figures_wet.capture_efficiency(r.screened, site, self.settings.wet,
-                                                  *self.session.bounds(*self.years), **t)
+            if spec:
+                return figures_wet.capture_efficiency_spec(r.screened, site, self.settings.wet,
+                                                           *bounds)
+            return figures_wet.capture_efficiency(r.screened, site, self.settings.wet, *bounds, **t)
         if name == "excluded samples":
-            return figures_wet.excluded_by_reason(r.screened, site, *self.session.bounds(*self.years), **t)
+            if spec:
+                return figures_wet.excluded_by_reason_spec(r.screened, site, *bounds)
+            return figures_wet.excluded_by_reason(r.screened, site, *bounds, **t)
         raise KeyError(name)
 
     def _tab_key(self, name):

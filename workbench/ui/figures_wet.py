@@ -66,6 +66,49 @@ def ion_balance_envelope(tiers, upper: float, lower: float = ENVELOPE_LOW):
     return an, ce
 
 
+def _figure(spec: dict, template) -> go.Figure:
+    return go.Figure(spec["data"], spec["layout"]).update_layout(template=template)
+
+
+def _markers(x, y, st, count, hover, hovertemplate) -> dict:
+    colour, symbol = SAMPLE_STATUS_STYLE[st]
+    return {"type": "scatter", "x": x, "y": y, "mode": "markers", "name": f"{st} ({count})",
+            "marker": {"color": colour, "symbol": symbol, "size": 8,
+                       "line": {"width": 1, "color": colour}},
+            "customdata": hover, "hovertemplate": hovertemplate}
+
+
+def ion_balance_spec(screened, site=None, options: WetOptions | None = None, start=None,
+                     end=None) -> dict:
+    """The figure of :func:`ion_balance` as plain plotly JSON (no template)."""
+    options = options or WetOptions()
+    s = _pick(screened, site, start, end)
+    ce = s["cation_sum"].values.astype(float)
+    an = s["anion_sum"].values.astype(float)
+    total = ce + an
+    ok = np.isfinite(total) & (total > 0)
+    top = (total[ok].max() if ok.any() else ENVELOPE_LOW * 100) * ENVELOPE_HEADROOM
+    low = (total[ok].min() if ok.any() else ENVELOPE_LOW) / ENVELOPE_HEADROOM
+    e_an, e_ce = ion_balance_envelope(options.ion_balance_tiers, top, low)
+    data = [{"type": "scatter", "x": e_an, "y": e_ce, "fill": "toself",
+             "fillcolor": ENVELOPE_FILL, "line": {"width": 0},
+             "name": "accepted |ion difference|", "hoverinfo": "skip"},
+            {"type": "scatter", "x": [low / 2, top / 2], "y": [low / 2, top / 2],
+             "mode": "lines", "line": {"color": OKABE_ITO["grey"], "dash": "dot"},
+             "name": "CE = AN", "hoverinfo": "skip"}]
+    status = s["status"].values.astype(str)
+    hover = np.array(_hover(s), dtype=object)
+    for st in STATUSES:
+        m = (status == st) & np.isfinite(ce) & np.isfinite(an)
+        data.append(_markers(an[m], ce[m], st, int(m.sum()), hover[m].tolist(),
+                             "AN %{x:.4g}, CE %{y:.4g} ueq/L<br>%{customdata}<extra></extra>"))
+    layout = {"title": {"text": "Ion balance: cations against anions" + (f" · {site}" if site else "")},
+              "xaxis": {"title": {"text": "anion sum AN [ueq L-1]"}, "type": "log"},
+              "yaxis": {"title": {"text": "cation sum CE [ueq L-1]"}, "type": "log"},
+              "height": HEIGHT, "legend": {"title": {"text": "sample status"}}}
+    return {"data": data, "layout": layout}
+
+
 def ion_balance(screened, site=None, options: WetOptions | None = None, start=None, end=None, template=TEMPLATE):
     """Cation sum against anion sum per sample, with the acceptance envelope.
 
@@ -86,42 +129,57 @@ def ion_balance(screened, site=None, options: WetOptions | None = None, start=No
         Traces: the envelope, the 1:1 line, then one per status (used, flagged,
         excluded); log axes.
     """
+    return _figure(ion_balance_spec(screened, site, options, start, end), template)
+
+
+def capture_efficiency_spec(screened, site=None, options: WetOptions | None = None, start=None,
+                            end=None) -> dict:
+    """The figure of :func:`capture_efficiency` as plain plotly JSON (no template)."""
     options = options or WetOptions()
     s = _pick(screened, site, start, end)
-    ce = s["cation_sum"].values.astype(float)
-    an = s["anion_sum"].values.astype(float)
-    total = ce + an
-    ok = np.isfinite(total) & (total > 0)
-    top = (total[ok].max() if ok.any() else ENVELOPE_LOW * 100) * ENVELOPE_HEADROOM
-    low = (total[ok].min() if ok.any() else ENVELOPE_LOW) / ENVELOPE_HEADROOM
-    e_an, e_ce = ion_balance_envelope(options.ion_balance_tiers, top, low)
-    fig = go.Figure()
-    fig.add_trace(go.Scatter(x=e_an, y=e_ce, fill="toself", fillcolor=ENVELOPE_FILL,
-                             line=dict(width=0), name="accepted |ion difference|",
-                             hoverinfo="skip"))
-    fig.add_trace(go.Scatter(x=[low / 2, top / 2], y=[low / 2, top / 2], mode="lines",
-                             line=dict(color=OKABE_ITO["grey"], dash="dot"), name="CE = AN",
-                             hoverinfo="skip"))
+    gauge = s["gauge_depth"].values.astype(float)
+    ratio = s["capture_ratio"].values.astype(float)
+    hi_x = np.nanmax(np.concatenate([gauge, [options.capture_min_depth * 10]])) * ENVELOPE_HEADROOM
+    data = []
+    for name, (lo, hi), dash in (("rain", options.capture_rain, "solid"),
+                                 ("snow", options.capture_snow, "dash")):
+        d0 = options.capture_min_depth
+        trace = {"type": "scatter", "x": [d0, float(hi_x), float(hi_x), d0, d0],
+                 "y": [lo, lo, hi, hi, lo], "fillcolor": ENVELOPE_FILL, "mode": "lines",
+                 "line": {"color": OKABE_ITO["grey"], "dash": dash, "width": 1},
+                 "name": f"accepted for {name} ({lo:g}-{hi:g})", "hoverinfo": "skip"}
+        if name == "rain":
+            trace["fill"] = "toself"
+        data.append(trace)
     status = s["status"].values.astype(str)
-    hover = np.array(_hover(s), dtype=object)
+    ptype = s["precip_type"].values.astype(str) if "precip_type" in s else np.full(len(status), "")
+    hover = np.array([f"{h}<br>type {p}" for h, p in zip(_hover(s), ptype)], dtype=object)
     for st in STATUSES:
-        m = (status == st) & np.isfinite(ce) & np.isfinite(an)
-        colour, symbol = SAMPLE_STATUS_STYLE[st]
-        fig.add_trace(go.Scatter(
-            x=an[m], y=ce[m], mode="markers", name=f"{st} ({int(m.sum())})",
-            marker=dict(color=colour, symbol=symbol, size=8, line=dict(width=1, color=colour)),
-            customdata=hover[m],
-            hovertemplate="AN %{x:.4g}, CE %{y:.4g} ueq/L<br>%{customdata}<extra></extra>"))
-    fig.update_layout(title="Ion balance: cations against anions" + (f" · {site}" if site else ""),
-                      xaxis=dict(title="anion sum AN [ueq L-1]", type="log"),
-                      yaxis=dict(title="cation sum CE [ueq L-1]", type="log"),
-                      template=template, height=HEIGHT, legend_title="sample status")
-    return fig
+        m = (status == st) & np.isfinite(ratio) & (gauge > 0)
+        data.append(_markers(gauge[m], ratio[m], st, int(m.sum()), hover[m].tolist(),
+                             "gauge %{x:.3g} mm, capture %{y:.2f}<br>%{customdata}<extra></extra>"))
+    layout = {"title": {"text": "Capture efficiency: collector over gauge depth"
+                        + (f" · {site}" if site else "")},
+              "xaxis": {"title": {"text": "gauge depth [mm]"}, "type": "log"},
+              "yaxis": {"title": {"text": "capture ratio [1]"}, "rangemode": "tozero"},
+              "height": HEIGHT, "legend": {"title": {"text": "sample status"}}}
+    return {"data": data, "layout": layout}
 
 
 def capture_efficiency(screened, site=None, options: WetOptions | None = None, start=None,
                        end=None, template=TEMPLATE):
     """Collector depth over gauge depth per sample, with the accepted ranges.
+
+    Parameters
+    ----------
+    screened : xarray.Dataset
+        Output of :func:`workbench.wet.screen` (``gauge_depth`` [mm],
+        ``capture_ratio`` [1], ``status``, ``reasons``).
+    site : str, optional
+    options : WetOptions, optional
+        Gives the accepted ranges (default: the defaults).
+    start, end : str or datetime64, optional
+        Only samples overlapping [start, end).
 
     Returns
     -------
@@ -129,38 +187,30 @@ def capture_efficiency(screened, site=None, options: WetOptions | None = None, s
         Traces: the rain range (band), the snow range (band), then one per status;
         log x axis (gauge depth [mm]).
     """
-    options = options or WetOptions()
-    s = _pick(screened, site, start, end)
-    gauge = s["gauge_depth"].values.astype(float)
-    ratio = s["capture_ratio"].values.astype(float)
-    hi_x = np.nanmax(np.concatenate([gauge, [options.capture_min_depth * 10]])) * ENVELOPE_HEADROOM
-    fig = go.Figure()
-    for name, (lo, hi), dash in (("rain", options.capture_rain, "solid"),
-                                 ("snow", options.capture_snow, "dash")):
-        fig.add_trace(go.Scatter(
-            x=[options.capture_min_depth, hi_x, hi_x, options.capture_min_depth,
-               options.capture_min_depth],
-            y=[lo, lo, hi, hi, lo], fill="toself" if name == "rain" else None,
-            fillcolor=ENVELOPE_FILL, mode="lines",
-            line=dict(color=OKABE_ITO["grey"], dash=dash, width=1),
-            name=f"accepted for {name} ({lo:g}-{hi:g})", hoverinfo="skip"))
-    status = s["status"].values.astype(str)
-    ptype = s["precip_type"].values.astype(str) if "precip_type" in s else np.full(len(status), "")
-    hover = np.array([f"{h}<br>type {p}" for h, p in zip(_hover(s), ptype)], dtype=object)
-    for st in STATUSES:
-        m = (status == st) & np.isfinite(ratio) & (gauge > 0)
-        colour, symbol = SAMPLE_STATUS_STYLE[st]
-        fig.add_trace(go.Scatter(
-            x=gauge[m], y=ratio[m], mode="markers", name=f"{st} ({int(m.sum())})",
-            marker=dict(color=colour, symbol=symbol, size=8, line=dict(width=1, color=colour)),
-            customdata=hover[m],
-            hovertemplate="gauge %{x:.3g} mm, capture %{y:.2f}<br>%{customdata}<extra></extra>"))
-    fig.update_layout(title="Capture efficiency: collector over gauge depth"
-                      + (f" · {site}" if site else ""),
-                      xaxis=dict(title="gauge depth [mm]", type="log"),
-                      yaxis=dict(title="capture ratio [1]", rangemode="tozero"),
-                      template=template, height=HEIGHT, legend_title="sample status")
-    return fig
+    return _figure(capture_efficiency_spec(screened, site, options, start, end), template)
+
+
+def excluded_by_reason_spec(screened, site=None, start=None, end=None) -> dict:
+    """The figure of :func:`excluded_by_reason` as plain plotly JSON (no template)."""
+    t = reason_counts(screened, site, start, end) if screened is not None else reason_counts(None)
+    reasons = list(dict.fromkeys(t["reason"])) if len(t) else []
+    most = int(t.groupby("reason")["samples"].sum().max()) if len(t) else 0
+    data = []
+    for st in ("excluded", "flagged"):
+        g = t[t["status"] == st].set_index("reason")["samples"] if len(t) else None
+        counts = [int(g.get(r, 0)) if g is not None else 0 for r in reasons]
+        data.append({"type": "bar", "y": reasons, "x": counts, "orientation": "h", "name": st,
+                     "marker": {"color": SAMPLE_STATUS_STYLE[st][0]},
+                     "hovertemplate": f"%{{y}}: %{{x}} samples {st}<extra></extra>"})
+    xaxis = {"title": {"text": "samples"}, "rangemode": "tozero"}
+    if most <= INTEGER_TICKS_UP_TO:
+        xaxis["dtick"] = 1
+    layout = {"barmode": "stack",
+              "title": {"text": "Samples not used as they are, by reason"
+                        + (f" · {site}" if site else "")},
+              "xaxis": xaxis, "yaxis": {"title": {"text": "reason"}, "autorange": "reversed"},
+              "height": max(HEIGHT // 2, 60 + 28 * len(reasons)), "margin": {"l": 260}}
+    return {"data": data, "layout": layout}
 
 
 def excluded_by_reason(screened, site=None, start=None, end=None, template=TEMPLATE):
@@ -171,20 +221,4 @@ def excluded_by_reason(screened, site=None, start=None, end=None, template=TEMPL
     plotly.graph_objects.Figure
         Two bar traces: excluded, flagged.
     """
-    t = reason_counts(screened, site, start, end) if screened is not None else reason_counts(None)
-    fig = go.Figure()
-    reasons = list(dict.fromkeys(t["reason"])) if len(t) else []
-    most = int(t.groupby("reason")["samples"].sum().max()) if len(t) else 0
-    for st in ("excluded", "flagged"):
-        g = t[t["status"] == st].set_index("reason")["samples"] if len(t) else None
-        counts = [int(g.get(r, 0)) if g is not None else 0 for r in reasons]
-        fig.add_trace(go.Bar(y=reasons, x=counts, orientation="h", name=st,
-                             marker=dict(color=SAMPLE_STATUS_STYLE[st][0]),
-                             hovertemplate=f"%{{y}}: %{{x}} samples {st}<extra></extra>"))
-    fig.update_layout(barmode="stack", title="Samples not used as they are, by reason"
-                      + (f" · {site}" if site else ""),
-                      xaxis=dict(title="samples", dtick=1 if most <= INTEGER_TICKS_UP_TO else None,
-                                 rangemode="tozero"),
-                      yaxis=dict(title="reason", autorange="reversed"), template=template,
-                      height=max(HEIGHT // 2, 60 + 28 * len(reasons)), margin=dict(l=260))
-    return fig
+    return _figure(excluded_by_reason_spec(screened, site, start, end), template)
