@@ -1,0 +1,209 @@
+"""The numpy fast path of the Zhang et al. (2001) mass-weighted particle Vd.
+
+:func:`workbench.drydep.particles.mass_weighted_velocities` uses :class:`ZhangSurface`
+for plain numpy input: the same equations as
+:func:`workbench.drydep.particles.particle_deposition_velocity`, rearranged so that
+what does not depend on the particle size is computed once and what depends on the
+size only is computed without the receptor axis.  A test holds it to the node-by-node
+sum of the public functions (tests/drydep/test_drydep_particles.py).
+Units: SI (m, kg m-3, K, Pa, m s-1, s m-1).
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from ..constants import BOLTZMANN, GRAVITY, WATER_DENSITY
+from ..surface.air import dynamic_viscosity, kinematic_viscosity, mean_free_path
+from .particles import (_ROW, _SLIP_EXP_MIN, EPSILON_0, GERBER, GROWTH_RH_MAX, M_PER_CM,
+                        SLIP_A, SLIP_B, SLIP_C, _luc_table, _rows, lognormal_nodes)
+
+
+class ZhangSurface:
+    """The mode-independent part of Zhang et al. (2001) for numpy input.
+
+    Built once per call of :func:`mass_weighted_velocities`; holds, each with the
+    least shape it needs (what depends only on the air has the shape of the
+    temperature, pressure and humidity: no receptor axis):
+
+    * air factors: 2 lambda [m] and -1.1/(2 lambda) [m-1] of the slip correction,
+      g/(18 mu) [m2 s-1 kg-1] of v_g, 3 pi mu nu/(k_B T) [m-1] of Sc;
+    * log10 of the relative humidity clipped as in :func:`wet_diameter` [-], and 0
+      or NaN (where the humidity is NaN, as :func:`wet_diameter` without growth);
+    * the land-use values -gamma [-] and alpha [-] (shape of `land_use`);
+    * ``st_per_vg``: St / v_g [s m-1], u*/(g A) over vegetation and u*^2/nu over
+      smooth surfaces (Zhang et al. 2001, Eq. 6);
+    * ``ein_per_d2``: E_IN / d_p^2 [m-2], 1/(2 A^2), 0 over smooth surfaces (Eq. 7);
+    * ``sqrt_st_per_vg_rebound``: (St / v_g)^1/2 [s1/2 m-1/2] where the rebound
+      factor R_1 applies, 0 where the surface is wet or open water (R_1 = 1);
+    * ``eps_ustar``: epsilon_0 u* [m s-1];
+    * ``ra``: R_a [s m-1], NaN where the wetness or the seasonal category is unknown
+      (which makes V_d NaN there, as in :func:`surface_resistance`);
+    * work arrays reused by every node and mode.
+
+    Parameters
+    ----------
+    relative_humidity : array_like
+        [1]
+    ustar : array_like
+        [m s-1]
+    ra : array_like
+        [s m-1]
+    temperature, pressure : array_like
+        [K], [Pa]
+    land_use : str or array_like of str
+    seasonal_category : array_like
+        1-5 (NaN unknown). [-]
+    wet : array_like
+        [0/1] (NaN unknown)
+    """
+
+    def __init__(self, relative_humidity, ustar, ra, temperature, pressure, land_use,
+                 seasonal_category, wet):
+        f = lambda x: np.asarray(x, dtype=float)  # noqa: E731
+        rh, us, ra, t, p = f(relative_humidity), f(ustar), f(ra), f(temperature), f(pressure)
+        cat, wet = f(seasonal_category), f(wet)
+        rows = np.asarray(_rows(land_use))
+        self.shape = np.broadcast_shapes(rh.shape, us.shape, ra.shape, t.shape, p.shape,
+                                         cat.shape, wet.shape, rows.shape)
+        self.air_shape = np.broadcast_shapes(rh.shape, t.shape, p.shape)
+        self.nan_rh = np.where(np.isnan(rh), np.nan, 0.0)
+        self.log10_rh = np.log10(np.clip(rh, np.finfo(float).tiny, GROWTH_RH_MAX))
+        mu = dynamic_viscosity(t)
+        nu = kinematic_viscosity(t, p, viscosity=mu)
+        free_path = mean_free_path(t, p, viscosity=mu)
+        self.two_free_path = 2.0 * free_path                      # [m]
+        self.slip_exp_per_d = -SLIP_C / (2.0 * free_path)         # [m-1]
+        self.vg_per_rho_d2_cc = GRAVITY / (18.0 * mu)             # [m2 s-1 kg-1]
+        self.sc_per_d_over_cc = 3.0 * np.pi * mu * nu / (BOLTZMANN * t)  # [m-1]
+        a_tab, alpha, gamma, smooth = _luc_table()
+        self.neg_gamma, self.alpha = -gamma[rows], alpha[rows]
+        smooth = smooth[rows]
+        finite = np.isfinite(cat)
+        col = (np.where(finite, cat, 1.0) - 1.0).astype(int)
+        a = np.where(finite, a_tab[rows, col], np.nan)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            self.st_per_vg = np.where(smooth, us * us / nu, us / (GRAVITY * a))
+            self.ein_per_d2 = np.where(smooth, 0.0, 0.5 / (a * a))
+        rebound = np.where((wet > 0) | (rows == _ROW["water"]), 0.0, 1.0)
+        self.sqrt_st_per_vg_rebound = np.sqrt(self.st_per_vg * rebound)
+        self.eps_ustar = EPSILON_0 * us
+        self.ra = ra + np.where(np.isnan(wet) | np.isnan(cat), np.nan, 0.0)
+        self._air_work = [np.empty(self.air_shape) for _ in range(6)]
+        self._work = [np.empty(self.shape) for _ in range(3)]
+
+    def node(self, dry_diameter, dry_density, growth):
+        """Grown diameter, settling and Brownian terms of one dry diameter.
+
+        Parameters
+        ----------
+        dry_diameter : float
+            [m]
+        dry_density : float
+            [kg m-3]
+        growth : str
+            Growth law (see :func:`wet_diameter`).
+
+        Returns
+        -------
+        vg : numpy.ndarray
+            Settling velocity v_g, shape of the air [m s-1].
+        log_sc : numpy.ndarray
+            ln of the particle's Schmidt number nu / D_B [-].
+        d2 : numpy.ndarray
+            Square of the grown diameter [m2].
+
+        The three arrays are work arrays, overwritten by the next call.
+
+        Notes
+        -----
+        Gerber (1985) growth as :func:`wet_diameter`, density as :func:`wet_density`,
+        C_c, v_g and D_B as :func:`slip_correction`, :func:`settling_velocity` and
+        :func:`brownian_diffusivity`, with the factors that depend only on the air
+        taken out: exp(-1.1 d/(2 lambda)), v_g = rho_p d^2 C_c g/(18 mu) and
+        Sc = nu/D_B = (d/C_c) 3 pi mu nu/(k_B T).
+        """
+        dw, d2, rho, cc, log_sc, _ = self._air_work
+        if growth == "none":
+            np.add(self.nan_rh, dry_diameter, out=dw)  # NaN where RH is, as wet_diameter
+        else:
+            c1, c2, c3, c4 = GERBER[growth]
+            rd = dry_diameter / 2.0 / M_PER_CM  # dry radius [cm]
+            np.subtract(c3 * rd ** c4, self.log10_rh, out=dw)
+            np.divide(c1 * rd ** c2, dw, out=dw)
+            dw += rd ** 3
+            np.cbrt(dw, out=dw)  # wet radius [cm]
+            dw *= 2.0 * M_PER_CM
+        np.multiply(dw, dw, out=d2)
+        np.multiply(d2, dw, out=rho)
+        # density: water plus the dry core's excess times its volume fraction
+        np.divide((dry_density - WATER_DENSITY) * dry_diameter ** 3, rho, out=rho)
+        rho += WATER_DENSITY
+        np.multiply(dw, self.slip_exp_per_d, out=cc)
+        np.maximum(cc, _SLIP_EXP_MIN, out=cc)  # C_c unchanged; exp kept off subnormals
+        np.exp(cc, out=cc)
+        cc *= SLIP_B
+        cc += SLIP_A
+        np.divide(self.two_free_path, dw, out=log_sc)  # Knudsen number 2 lambda / d
+        cc *= log_sc
+        cc += 1.0
+        np.divide(dw, cc, out=log_sc)
+        log_sc *= self.sc_per_d_over_cc
+        np.log(log_sc, out=log_sc)
+        vg = rho
+        vg *= d2
+        vg *= cc
+        vg *= self.vg_per_rho_d2_cc
+        return vg, log_sc, d2
+
+    def mass_weighted(self, mode, nodes):
+        """Mass-weighted V_d of one mode [m s-1] (see :func:`mass_weighted_velocity`).
+
+        Parameters
+        ----------
+        mode : workbench.drydep.options.LogNormalMode
+        nodes : int
+
+        Returns
+        -------
+        vd : numpy.ndarray or numpy.float64
+            Shape of the broadcast inputs. [m s-1]
+
+        Notes
+        -----
+        Per node, on the full (site, receptor, time) shape, Zhang et al. (2001)
+        Eqs. (1), (5)-(8): E_B = exp(-gamma ln Sc), E_IM = (St/(alpha + St))^2,
+        E_IN = d^2/(2 A^2), 1/R_1 = exp(St^1/2) where there is rebound (else 1), and
+        R_s = (1/R_1) / (epsilon_0 u* (E_B + E_IM + E_IN)); the sum over the nodes of
+        w (v_g + 1/(R_a + R_s)).  A loop over the few nodes, each step vectorized
+        over sites, receptors and hours, in work arrays that stay in the processor's
+        cache (one pass over all nodes at once was two times slower).
+        """
+        diams, weights = lognormal_nodes(mode.mmd, mode.gsd, nodes)
+        e, st, x = self._work
+        total = np.zeros(self.shape)
+        vg_sum = np.zeros(self.air_shape)
+        sqrt_vg = self._air_work[5]
+        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+            for d, w in zip(diams, weights):
+                vg, log_sc, d2 = self.node(d, mode.density, mode.growth)
+                np.multiply(self.neg_gamma, log_sc, out=e)
+                np.exp(e, out=e)                                # E_B
+                np.multiply(vg, self.st_per_vg, out=st)         # St
+                np.add(self.alpha, st, out=x)
+                np.divide(st, x, out=x)
+                np.multiply(x, x, out=x)                        # E_IM
+                e += x
+                np.multiply(d2, self.ein_per_d2, out=x)         # E_IN
+                e += x
+                e *= self.eps_ustar                             # epsilon_0 u* E
+                np.sqrt(vg, out=sqrt_vg)
+                np.multiply(sqrt_vg, self.sqrt_st_per_vg_rebound, out=x)
+                np.exp(x, out=x)                                # 1 / R_1
+                x /= e                                          # R_s
+                x += self.ra
+                np.divide(w, x, out=x)                          # w / (R_a + R_s)
+                total += x
+                np.multiply(vg, w, out=sqrt_vg)
+                vg_sum += sqrt_vg                               # sum of w v_g
+            total += vg_sum
+        return total[()] if total.ndim == 0 else total
