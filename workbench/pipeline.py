@@ -44,9 +44,22 @@ WET_PERIOD_OPTIONS = ("hydro_start_month", "straddle", "min_gauge_fraction",
 
 #: Results kept per stage where they are large (hourly arrays): older ones are
 #: computed again when asked for.  Velocities of a site-year are ~15 MB.
-STAGE_LIMITS = {"velocities": 8}
+STAGE_LIMITS = {"velocities": 8, "dry": 400, "wet": 64, "screened": 16}
+#: Entries kept in the content-keyed memo of the dry rows, and option sets whose own
+#: memo (brackets) is kept; the oldest go first and are computed again when asked for.
+SHARED_ENTRIES = 3000
+OPTION_MEMOS = 16
 #: Sets of receptor surfaces (site overrides) whose velocity steps are kept.
 VELOCITY_STEP_SETS = 2
+
+
+def _bounded(memos: dict, key, limit: int) -> dict:
+    """The memo dict of `key` in `memos` (made when new), keeping the last `limit`."""
+    memo = memos.pop(key, None)
+    memos[key] = {} if memo is None else memo           # most recent last
+    while len(memos) > limit:
+        memos.pop(next(iter(memos)))
+    return memos[key]
 
 
 def _rkey(receptors) -> str:
@@ -296,11 +309,18 @@ class Study:
             return None
         flux = budget_options.flux_key()
         over = _key(overrides) + _rkey(receptors)
-        memo = self._memo.setdefault(repr(dry_options) + over + flux, {})
+        memo = _bounded(self._memo.setdefault("option memos", {}),
+                        repr(dry_options) + over + flux, OPTION_MEMOS)
+        shared = self._memo.setdefault("shared", {})
         key = repr(dry_options) + over + _key(fixed_velocity) + flux
-        return self._cached("dry", "rows|" + key, lambda: dry_rows(
-            self.inputs.air, vel, self.inputs.met, self.catalogue(overrides).ids, budget_options,
-            memo, self._memo.setdefault("shared", {})))
+
+        def make():
+            out = dry_rows(self.inputs.air, vel, self.inputs.met, self.catalogue(overrides).ids,
+                           budget_options, memo, shared)
+            while len(shared) > SHARED_ENTRIES:
+                shared.pop(next(iter(shared)))
+            return out
+        return self._cached("dry", "rows|" + key, make)
 
     def dry(self, dry_options, budget_options, periods, fixed_velocity=None, overrides=None,
             receptors=None):

@@ -37,3 +37,35 @@ def test_session_runs_the_receptor_asked_for_and_caches_it(session):
     assert session.run(session.baseline, "ridge", 2021, 2021, "year", receptor="grass") is a
     every = session.run(session.baseline, "ridge", 2021, 2021, "year")
     assert len(every.years["receptor"]) == len(session.receptors("ridge"))
+
+
+def test_tight_cache_limits_give_the_same_numbers(session, monkeypatch):
+    """With every cache bound set tiny, entries are dropped and computed again while
+    options change back and forth: the budgets equal those of fresh studies."""
+    import dataclasses
+
+    from workbench import pipeline
+    from workbench.drydep import core
+    monkeypatch.setattr(pipeline, "STAGE_LIMITS",
+                        {"velocities": 1, "dry": 3, "wet": 1, "screened": 1})
+    monkeypatch.setattr(pipeline, "SHARED_ENTRIES", 5)
+    monkeypatch.setattr(pipeline, "OPTION_MEMOS", 1)
+    monkeypatch.setattr(pipeline, "VELOCITY_STEP_SETS", 1)
+    monkeypatch.setattr(core, "CACHE_ENTRIES", {k: 1 for k in core.CACHE_ENTRIES})
+    base = session.study_for("ridge", 2021, 2021)
+    st = pipeline.Study(base.inputs, base.site_overrides)
+    args = session.baseline.run_args()
+    start, end = session.bounds(2021, 2021)
+    dry = args["dry_options"]
+    variants = [dict(args),
+                dict(args, dry_options=dataclasses.replace(dry, wetness_rule="always_wet")),
+                dict(args, fixed_velocity={"SO2": 0.4}),
+                dict(args, budget_options=dataclasses.replace(args["budget_options"],
+                                                              pair_split="all_gas"))]
+    for a in variants + variants[::-1]:
+        got = st.run(resolution="year", start=start, end=end, receptors=["grass"], **a)
+        fresh = pipeline.Study(base.inputs, base.site_overrides).run(
+            resolution="year", start=start, end=end, receptors=["grass"], **a)
+        _assert_same(got.years, fresh.years)
+    assert sum(1 for k in st._cache if k[0] == "dry") <= 3
+    assert len(st._memo["shared"]) <= 5               # trimmed after each rows computation
