@@ -202,3 +202,17 @@ def test_file_not_found(tmp_path, cat):
 def test_malformed_row(write, cat):
     p = _precip(write, [ROW + ",extra,fields"])
     _raises(read_precipitation, p, cat, match="p.csv, line 2: malformed CSV row")
+
+
+def test_blanks_at_cell_edges_are_stripped_and_inner_ones_kept(tmp_path):
+    """Cells are stripped where a blank touches a comma, a quote or a line end; a
+    blank inside a cell (a date and time) stays."""
+    from workbench.io.table import RawTable
+    p = tmp_path / "t.csv"
+    p.write_text('site,when,value\nridge ,2021-01-01 01:00,"1.5 "\n  mere,2021-01-01 02:00,\t2\n')
+    tab = RawTable.read(p)
+    assert list(tab.text("site")) == ["ridge", "mere"]
+    assert list(tab.text("when")) == ["2021-01-01 01:00", "2021-01-01 02:00"]
+    assert list(tab.numbers("value")) == [1.5, 2.0]
+    p.write_text("site,value\nridge,1.5\nmere,2\n")
+    assert list(RawTable.read(p).numbers("value")) == [1.5, 2.0]

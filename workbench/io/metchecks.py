@@ -59,6 +59,12 @@ def expected_station_pressure(elevation_m):
     return standard_pressure_at(np.asarray(elevation_m, float))
 
 
+def _per_site(catalogue, sites, attr: str) -> np.ndarray:
+    """A catalogue attribute of each row's site (looked up once per site) [its unit]."""
+    uniq, inv = np.unique(np.asarray(sites), return_inverse=True)
+    return np.array([getattr(catalogue[u], attr) for u in uniq], float)[inv]
+
+
 def run_row_checks(values, sites, t, catalogue, raw_units):
     """Run the per-row and per-site checks.
 
@@ -98,7 +104,7 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
     # pressure: unit slips and reduction to sea level
     if "pressure" in values:
         p = values["pressure"]
-        elev = np.array([catalogue[s].elevation_m for s in sites], float)
+        elev = _per_site(catalogue, sites, "elevation_m")
         p_exp = expected_station_pressure(elev)
         med = frame.assign(v=p).groupby("site")["v"].transform("median").to_numpy()
         ratio = med / p_exp
@@ -114,7 +120,7 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
         sr = values["solar_radiation"]
         g = frame.assign(v=sr).groupby("site")["v"]
         smax, scount = g.transform("max").to_numpy(), g.transform("count").to_numpy()
-        lat = np.array([catalogue[s].latitude for s in sites], float)
+        lat = _per_site(catalogue, sites, "latitude")
         mask("solar_radiation", smax > RANGES["solar_radiation"][1],
              "solar radiation above 1500 W/m2 at this site: unit likely not W/m2 (masked)")
         mask("solar_radiation", (smax < 50) & (scount >= 24 * 60) & (np.abs(lat) < 60),
@@ -140,8 +146,8 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
             mask(name, (v < lo) | (v > hi), f"{name} outside {lo:g}..{hi:g} (masked)")
     # radiation at night
     if "solar_radiation" in values:
-        lat = np.array([catalogue[s].latitude for s in sites], float)
-        lon = np.array([catalogue[s].longitude for s in sites], float)
+        lat = _per_site(catalogue, sites, "latitude")
+        lon = _per_site(catalogue, sites, "longitude")
         mid = t - np.timedelta64(30, "m")
         elev = solar_elevation_deg(mid, lat, lon)
         night = elev < NIGHT_ELEVATION_DEG

@@ -22,6 +22,14 @@ from ..units import Header, parse_header
 
 _OFFSET = re.compile(r"[T ]\d\d.*(?:Z|[+-]\d\d(?::?\d\d)?)$")
 
+#: Cell texts read as a missing number.
+MISSING_TEXTS = ("", "NA", "NaN", "nan")
+#: Any blank but the line break (what ``str.strip`` removes, as ``str.isspace``): the
+#: cells are stripped only when the data rows hold one, or a quote (a quoted cell may
+#: end in a line break); a pass over every cell of a large file costs a good part of
+#: reading it, one search of the text a fraction of that.
+_BLANK = re.compile(r"[^\S\n]")
+
 
 def _open_text(path: Path) -> str:
     try:
@@ -117,7 +125,9 @@ class RawTable:
             raw[h.name] = col
             names.append(h.name)
         df.columns = names
-        df = df.apply(lambda c: c.str.strip())
+        data = body[body.find("\n") + 1:] if "\n" in body else ""
+        if '"' in data or _BLANK.search(data):            # else no cell has any to strip
+            df = df.apply(lambda c: c.str.strip())
         return cls(path, meta, df, lines, headers, raw)
 
     # ------------------------------------------------------------------ helpers
@@ -173,15 +183,16 @@ class RawTable:
             Only when `censoring` is True: cells written ``<x``.
         """
         s = self.frame[name]
+        if not censoring:
+            return self._plain_numbers(name, s)
         cens = s.str.startswith("<").to_numpy()
         body = s.str.lstrip("<").str.strip() if censoring else s
         if not censoring and cens.any():
             i = int(np.flatnonzero(cens)[0])
             raise self.error("censored value not allowed here", row=i, column=name,
                              value=s.iloc[i], expected="a number")
-        vals = pd.to_numeric(body.replace({"": np.nan, "NA": np.nan, "NaN": np.nan,
-                                            "nan": np.nan}), errors="coerce")
-        bad = vals.isna().to_numpy() & ~body.isin(["", "NA", "NaN", "nan"]).to_numpy()
+        vals = pd.to_numeric(body.replace({m: np.nan for m in MISSING_TEXTS}), errors="coerce")
+        bad = vals.isna().to_numpy() & ~body.isin(MISSING_TEXTS).to_numpy()
         if bad.any():
             i = int(np.flatnonzero(bad)[0])
             raise self.error("text in a numeric column", row=i, column=name,
@@ -190,6 +201,25 @@ class RawTable:
         v = vals.to_numpy(dtype=float)
         if censoring:
             return v, cens
+        return v
+
+    def _plain_numbers(self, name, s: pd.Series) -> np.ndarray:
+        """:meth:`numbers` without censoring: one parse of the whole column, the text
+        checks only on the cells that did not parse (most columns have none)."""
+        v = pd.to_numeric(s, errors="coerce").to_numpy(dtype=float)
+        odd = np.flatnonzero(np.isnan(v))
+        if len(odd):
+            sub = s.iloc[odd]
+            cens = sub.str.startswith("<").to_numpy()
+            if cens.any():
+                i = int(odd[np.flatnonzero(cens)[0]])
+                raise self.error("censored value not allowed here", row=i, column=name,
+                                 value=s.iloc[i], expected="a number")
+            bad = ~sub.isin(MISSING_TEXTS).to_numpy()
+            if bad.any():
+                i = int(odd[np.flatnonzero(bad)[0]])
+                raise self.error("text in a numeric column", row=i, column=name,
+                                 value=s.iloc[i], expected="a number (or empty for missing)")
         return v
 
     def times(self, name, utc_offset_h) -> np.ndarray:
