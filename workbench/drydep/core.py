@@ -110,6 +110,13 @@ _STATE_OPTIONS = ("seasonal_category", "wetness_rule")
 #: Options of the gases, besides those of steps 1-5.
 _GAS_OPTIONS = ("gas_scheme", "gases", "components", "nh3_treatment")
 
+#: What steps 1-4 hand on (the cached result of the surface layer), and step 5.
+_MICROMET_OUT = ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "cloud",
+                 "cloud_src", "pressure_estimated", "us_m", "h_m", "method", "ok",
+                 "theta_limited", "night", "us_r", "floor_used", "h_r", "inv_l", "z_ref",
+                 "raised", "ra", "cap_used", "valid", "z0_r")
+_STATE_OUT = ("cat", "cat_src", "wet", "kind", "wet_src")
+
 
 def _options_key(opt: DryOptions, names) -> str:
     return repr(tuple((n, getattr(opt, n)) for n in names))
@@ -222,7 +229,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         alb_m = np.array([eb.ALBEDO[m] for m in met_names])[:, None, None]
         alpha_m = np.array([eb.PT_ALPHA[m] for m in met_names])[:, None, None]
         alb_m = np.where(snow > 0.5, eb.SNOW_ALBEDO, alb_m)
-        h_pt_m = eb.sensible_heat_flux(eb.net_radiation(k_down, temp, cloud, alb_m), temp, pres, alpha_m)
+        h_pt_m = eb.sensible_heat_flux(eb.net_radiation(k_down, temp, cloud, alb_m), temp, pres,
+                                       alpha_m)
         h_day = np.where(has_h, h_meas, h_pt_m)
         day = h_day > 0
         # the unstable solve only for the hours that use it (day, u* not measured): the
@@ -258,7 +266,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             if water.any():
                 z0_w = CHARNOCK_START_Z0 + 0.0 * us_m
                 for _ in range(opt.charnock_iterations):
-                    us_w = np.maximum(transfer_ustar(us_m, z0_m, d_m, z0_w, 0.0, zb), opt.ustar_floor)
+                    us_w = np.maximum(transfer_ustar(us_m, z0_m, d_m, z0_w, 0.0, zb),
+                                      opt.ustar_floor)
                     z0_w = charnock_roughness(us_w, nu)
                 z0_r = np.where(water, z0_w, z0_r)
             z0_r = z0_r + 0.0 * us_m
@@ -273,17 +282,21 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             h_r = np.where(water, 0.0, h_r)
             h_r = np.where(np.isnan(us_r), np.nan, h_r)
             inv_l = eb.inverse_obukhov(us_r, h_r, temp, rho)
-            z_ref, raised = reference_height(site("sampler_height"), d_r, z0_r, opt.ra_min_height_z0)
+            z_ref, raised = reference_height(site("sampler_height"), d_r, z0_r,
+                                             opt.ra_min_height_z0)
             ra = aerodynamic_resistance(z_ref, d_r, z0_r, us_r, inv_l)
         ra, cap_used = apply_cap(ra, opt.ra_cap)
         valid = ~np.isnan(us_r) & ~np.isnan(inv_l)
         floor_used, cap_used = floor_used & valid, cap_used & valid
 
-        return {"temp": temp, "u": u, "rh": rh, "k_down": k_down, "precip": precip, "pres": pres, "rho": rho, "snow": snow, "cloud": cloud, "cloud_src": cloud_src, "pressure_estimated": pressure_estimated, "us_m": us_m, "h_m": h_m, "method": method, "ok": ok, "theta_limited": theta_limited, "night": night, "us_r": us_r, "floor_used": floor_used, "h_r": h_r, "inv_l": inv_l, "z_ref": z_ref, "raised": raised, "ra": ra, "cap_used": cap_used, "valid": valid, "z0_r": z0_r}
+        here = locals()
+        return {k: here[k] for k in _MICROMET_OUT}
 
     rkey = repr(tuple(receptors))            # a cache may serve several receptor sets
     m = _stage(cache, "micromet", rkey + _options_key(opt, _MICROMET_OPTIONS), micromet)
-    (temp, u, rh, k_down, precip, pres, rho, snow, cloud, cloud_src, pressure_estimated, us_m, h_m, method, ok, theta_limited, night, us_r, floor_used, h_r, inv_l, z_ref, raised, ra, cap_used, valid, z0_r) = (m[k] for k in ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "cloud", "cloud_src", "pressure_estimated", "us_m", "h_m", "method", "ok", "theta_limited", "night", "us_r", "floor_used", "h_r", "inv_l", "z_ref", "raised", "ra", "cap_used", "valid", "z0_r"))
+    (temp, u, rh, k_down, precip, pres, rho, snow, cloud, cloud_src, pressure_estimated, us_m,
+     h_m, method, ok, theta_limited, night, us_r, floor_used, h_r, inv_l, z_ref, raised, ra,
+     cap_used, valid, z0_r) = (m[k] for k in _MICROMET_OUT)
 
     def season_wetness():
         # --- 5. season and wetness -------------------------------------------------------------
@@ -312,11 +325,12 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         given = st("surface_wet") if "surface_wet" in block else None
         wet, kind, wet_src = _wetness.wetness(opt.wetness_rule, rain, dew, given)
 
-        return {"cat": cat, "cat_src": cat_src, "wet": wet, "kind": kind, "wet_src": wet_src}
+        here = locals()
+        return {k: here[k] for k in _STATE_OUT}
 
     k_state = rkey + _options_key(opt, _MICROMET_OPTIONS + _STATE_OPTIONS)
     sw = _stage(cache, "state", k_state, season_wetness)
-    (cat, cat_src, wet, kind, wet_src) = (sw[k] for k in ("cat", "cat_src", "wet", "kind", "wet_src"))
+    (cat, cat_src, wet, kind, wet_src) = (sw[k] for k in _STATE_OUT)
 
     # --- 6. gases and particles ---------------------------------------------------------------
     coords = {"site": block["site"].values, "receptor": receptors, "time": block["time"].values}
