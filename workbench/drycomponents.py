@@ -10,8 +10,6 @@ Units: Vd [m s-1], concentrations [mol m-3] or [mol mol-1], deposition [mol m-2]
 """
 from __future__ import annotations
 
-import hashlib
-
 import numpy as np
 import pandas as pd
 import xarray as xr
@@ -19,6 +17,7 @@ import xarray as xr
 from .budget import COMPONENTS, PAIRS, BudgetError, BudgetOptions
 from .dryflux import (_cumulative, _hour_bounds, _inputs_for, deposition_rows, fill_diurnal,
                       period_axes, period_mean, share_to_periods)
+from .memo import digest, trim
 
 #: Shares of rows among periods kept by :func:`dry_components` (small arrays each).
 AGG_ENTRIES = 512
@@ -98,16 +97,10 @@ def _pair_air(air: xr.Dataset, pair: str, into: str) -> xr.Dataset:
 def _fingerprint(air: xr.Dataset, species: str) -> str:
     """Digest of what the rows of a species read from the air dataset (its values,
     censoring, detection limits, methods, sites and times), for content-keyed caches."""
-    h = hashlib.blake2b(digest_size=16)
-    for name in (species, f"{species}_censored", f"{species}_detection_limit",
-                 f"{species}_method", "site", "start", "end"):
-        if name in air.variables:
-            v = air.variables[name]
-            h.update(name.encode())
-            h.update(np.ascontiguousarray(v.values).astype(str if v.dtype == object else v.dtype)
-                     .tobytes())
-    h.update(str(air[species].attrs.get("quantity", "")).encode())
-    return h.hexdigest()
+    names = (species, f"{species}_censored", f"{species}_detection_limit",
+             f"{species}_method", "site", "start", "end")
+    return digest([(n, air.variables[n]) for n in names if n in air.variables],
+                  str(air[species].attrs.get("quantity", "")))
 
 
 def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=None):
@@ -272,8 +265,7 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
                                n_s, axes, times, r["start"], r["end"])
         if memo is not None:
             memo[key] = (out, r)                      # the rows held: their id stays unique
-            while len(memo) > AGG_ENTRIES:
-                memo.pop(next(iter(memo)))
+            trim(memo, AGG_ENTRIES)
         return out
 
     for k, sp in enumerate(species_list):

@@ -25,6 +25,7 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
+from .memo import trim
 from .units import molar_density_air
 
 HOUR_S = 3600.0
@@ -133,9 +134,8 @@ def _slots(times):
         years = mid.year.to_numpy()
         y0 = years.min()
         month_hour = (mid.month.to_numpy() - 1) * 24 + mid.hour.to_numpy()
-        if len(_SLOTS) >= 8:
-            _SLOTS.clear()
         _SLOTS[key] = ((years - y0) * 288 + month_hour, month_hour, int(years.max() - y0 + 1))
+        trim(_SLOTS, 8)
     return _SLOTS[key]
 
 

@@ -19,7 +19,6 @@ from __future__ import annotations
 
 import dataclasses
 import functools
-import hashlib
 import json
 from dataclasses import dataclass, field
 
@@ -32,6 +31,7 @@ from .budget import COMPONENTS, BudgetOptions, assemble, derived
 from .drycomponents import dry_components, dry_rows, prepare_velocities
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
+from .memo import digest, recent, trim
 from .tables import budget_table, span_table
 
 
@@ -53,15 +53,6 @@ OPTION_MEMOS = 16
 VELOCITY_STEP_SETS = 2
 
 
-def _bounded(memos: dict, key, limit: int) -> dict:
-    """The memo dict of `key` in `memos` (made when new), keeping the last `limit`."""
-    memo = memos.pop(key, None)
-    memos[key] = {} if memo is None else memo           # most recent last
-    while len(memos) > limit:
-        memos.pop(next(iter(memos)))
-    return memos[key]
-
-
 def _rkey(receptors) -> str:
     """Cache-key part of a receptor subset ("" for every receptor)."""
     return "" if receptors is None else "|receptors=" + ",".join(map(str, receptors))
@@ -75,18 +66,6 @@ def _key(obj) -> str:
     if dataclasses.is_dataclass(obj):
         return repr(obj)
     return json.dumps(obj, sort_keys=True, default=str)
-
-
-def _digest(obj) -> str:
-    """Digest of the values of a DataArray or Dataset and of its coordinates (a content
-    key for caches)."""
-    h = hashlib.blake2b(digest_size=16)
-    for name, c in obj.variables.items() if isinstance(obj, xr.Dataset) else \
-            list(obj.coords.variables.items()) + [("", obj.variable)]:
-        h.update(str(name).encode() + str(c.dims).encode())
-        h.update(np.ascontiguousarray(c.values).astype(str if c.dtype == object else c.dtype)
-                 .tobytes())
-    return h.hexdigest()
 
 
 @dataclass
@@ -220,11 +199,7 @@ class Study:
         over = _key({**self.site_overrides, **(overrides or {})}) + _rkey(receptors)
         # the steps inside are cached too, per set of surfaces: an option change
         # recomputes only the steps that depend on it (a particle size: that mode only)
-        sets = self._memo.setdefault("velocity steps", {})
-        steps = sets.pop(over, {})
-        sets[over] = steps                                   # most recent last
-        while len(sets) > VELOCITY_STEP_SETS:
-            sets.pop(next(iter(sets)))
+        steps = recent(self._memo.setdefault("velocity steps", {}), over, VELOCITY_STEP_SETS)
         return self._cached("velocities", repr(dry_options) + "|" + over,
                             lambda: velocities(self.inputs.met, self.surfaces(overrides),
                                                dry_options, cache=steps, receptors=receptors))
@@ -287,14 +262,11 @@ class Study:
         if key not in memo:
             axes = memo.get((id(vd), None))
             if axes is None:                             # the axes once per Dataset
-                axes = memo[(id(vd), None)] = (_digest(vd[f"vd_{sp}"].coords.to_dataset()), vd)
-            h = hashlib.blake2b(axes[0].encode(), digest_size=16)
-            v = vd.variables[f"vd_{sp}"]
-            h.update(str(v.dims).encode())
-            h.update(np.ascontiguousarray(v.values).tobytes())
-            memo[key] = (h.hexdigest(), vd)              # the Dataset held: its id stays unique
-            while len(memo) > 16 * len(COMPONENTS):
-                memo.pop(next(iter(memo)))
+                coords = vd[f"vd_{sp}"].coords.variables.items()
+                axes = memo[(id(vd), None)] = (digest(coords), vd)
+            # the Dataset held: its id stays unique
+            memo[key] = (digest([("", vd.variables[f"vd_{sp}"])], axes[0]), vd)
+            trim(memo, 16 * len(COMPONENTS))
         return memo[key][0]
 
     def dry_rows(self, dry_options, budget_options, fixed_velocity=None, overrides=None,
@@ -309,16 +281,15 @@ class Study:
             return None
         flux = budget_options.flux_key()
         over = _key(overrides) + _rkey(receptors)
-        memo = _bounded(self._memo.setdefault("option memos", {}),
-                        repr(dry_options) + over + flux, OPTION_MEMOS)
+        memo = recent(self._memo.setdefault("option memos", {}), repr(dry_options) + over + flux,
+                      OPTION_MEMOS)
         shared = self._memo.setdefault("shared", {})
         key = repr(dry_options) + over + _key(fixed_velocity) + flux
 
         def make():
             out = dry_rows(self.inputs.air, vel, self.inputs.met, self.catalogue(overrides).ids,
                            budget_options, memo, shared)
-            while len(shared) > SHARED_ENTRIES:
-                shared.pop(next(iter(shared)))
+            trim(shared, SHARED_ENTRIES)
             return out
         return self._cached("dry", "rows|" + key, make)
 
@@ -335,11 +306,7 @@ class Study:
     def season_coverage(self, dry_options, budget_options, years, fixed_velocity=None,
                         overrides=None, receptors=None):
         """(site, year, species): every season has concentrations in that year."""
-        mkey = ("season months", str(years["start"].values[0]), str(years["end"].values[-1]))
-        if mkey not in self._cache:
-            self._cache[mkey] = _periods.make_periods(years["start"].values[0],
-                                                      years["end"].values[-1], "month")
-        months = self._cache[mkey]
+        months = self.periods("month", years["start"].values[0], years["end"].values[-1])
         dry_m, _ = self.dry(dry_options, budget_options, months, fixed_velocity, overrides,
                             receptors)
         if dry_m is None:

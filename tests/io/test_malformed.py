@@ -1,6 +1,6 @@
 """Malformed files never reach the user as a traceback: a reader either loads the file
 (with its ledger balanced) or raises InputError.  Hypothesis mutates valid files."""
-import numpy as np
+import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 
 from workbench.errors import InputError
@@ -50,34 +50,17 @@ def _check(reader, path, *args):
     assert led.check_balanced()
 
 
+@pytest.mark.parametrize("reader, text", [(read_precipitation, PRECIP), (read_air, AIR),
+                                          (read_met, met_text(n_hours=30))],
+                         ids=["precipitation", "air", "met"])
 @SETTINGS
 @given(data=st.data())
-def test_precipitation_mutations(tmp_path, data):
+def test_table_mutations(tmp_path, data, reader, text):
     (tmp_path / "s.toml").write_text(SITES)
     cat = read_sites(tmp_path / "s.toml")
-    p = tmp_path / "p.csv"
-    p.write_text(_mutate(PRECIP, data))
-    _check(read_precipitation, p, cat)
-
-
-@SETTINGS
-@given(data=st.data())
-def test_air_mutations(tmp_path, data):
-    (tmp_path / "s.toml").write_text(SITES)
-    cat = read_sites(tmp_path / "s.toml")
-    p = tmp_path / "a.csv"
-    p.write_text(_mutate(AIR, data))
-    _check(read_air, p, cat)
-
-
-@SETTINGS
-@given(data=st.data())
-def test_met_mutations(tmp_path, data):
-    (tmp_path / "s.toml").write_text(SITES)
-    cat = read_sites(tmp_path / "s.toml")
-    p = tmp_path / "m.csv"
-    p.write_text(_mutate(met_text(n_hours=30), data))
-    _check(read_met, p, cat)
+    p = tmp_path / "t.csv"
+    p.write_text(_mutate(text, data))
+    _check(reader, p, cat)
 
 
 @SETTINGS

@@ -30,6 +30,7 @@ import xarray as xr
 from .. import landuse
 from ..constants import CP_DRY_AIR, VON_KARMAN
 from ..landuse import LAND_USE
+from ..memo import recent
 from ..surface import energy_balance as eb
 from ..surface.aerodynamic import (aerodynamic_resistance, apply_cap, apply_floor,
                                    reference_height, transfer_ustar)
@@ -131,17 +132,12 @@ def _stage(cache, stage: str, key, compute):
     if cache is None:
         return compute()
     entries = cache.setdefault(stage, {})
-    if key in entries:
-        entries[key] = entries.pop(key)              # most recently used last
-        return entries[key]
-    out = compute()
-    for v in out.values():
-        if isinstance(v, np.ndarray):
-            v.flags.writeable = False
-    entries[key] = out
-    while len(entries) > CACHE_ENTRIES[stage]:
-        entries.pop(next(iter(entries)))
-    return out
+    if key not in entries:
+        entries[key] = compute()
+        for v in entries[key].values():
+            if isinstance(v, np.ndarray):
+                v.flags.writeable = False
+    return recent(entries, key, CACHE_ENTRIES[stage])      # the most recently used last
 
 
 def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: list,

@@ -104,7 +104,7 @@ def surface_resistances(scheme, gases, state) -> dict:
     return {g: scheme.surface_resistance(g, state) for g in gases}
 
 
-def schmidt_number(gas: str, temperature, pressure):
+def schmidt_number(gas: str, temperature, pressure, viscosity=None):
     """Schmidt number Sc = nu / D of a gas in air [-].
 
     Parameters
@@ -115,13 +115,16 @@ def schmidt_number(gas: str, temperature, pressure):
         [K]
     pressure : array_like
         [Pa]
+    viscosity : array_like, optional
+        Kinematic viscosity of air nu, when already known. [m2 s-1]
 
     Returns
     -------
     sc : array_like
         [-]
     """
-    return kinematic_viscosity(temperature, pressure) / diffusivity(gas, temperature, pressure)
+    nu = kinematic_viscosity(temperature, pressure) if viscosity is None else viscosity
+    return nu / diffusivity(gas, temperature, pressure)
 
 
 def quasi_laminar_resistance(gas: str, ustar, temperature, pressure):
@@ -153,15 +156,15 @@ def quasi_laminar_resistance(gas: str, ustar, temperature, pressure):
     Water Air Soil Pollut. 36, 311-330; Wesely (1989), Atmos. Environ. 23, 1293,
     Eq. (1) and text.
     """
-    sc = schmidt_number(gas, temperature, pressure)
-    return RB_PREFACTOR / (VON_KARMAN * ustar) * (sc / PRANDTL_AIR) ** RB_EXPONENT
+    return quasi_laminar_resistances((gas,), ustar, temperature, pressure)[gas]
 
 
 def quasi_laminar_resistances(gases, ustar, temperature, pressure) -> dict:
     """:func:`quasi_laminar_resistance` of several gases [s m-1].
 
-    The kinematic viscosity of air and 2/(kappa u*) are computed once (the same
-    values as one gas at a time).
+    The kinematic viscosity of air and 2/(kappa u*) are computed once for all gases;
+    the formula is that of :func:`quasi_laminar_resistance`, with Sc of
+    :func:`schmidt_number`.
 
     Parameters
     ----------
@@ -180,8 +183,8 @@ def quasi_laminar_resistances(gases, ustar, temperature, pressure) -> dict:
     """
     nu = kinematic_viscosity(temperature, pressure)
     scale = RB_PREFACTOR / (VON_KARMAN * ustar)
-    return {g: scale * (nu / diffusivity(g, temperature, pressure) / PRANDTL_AIR) ** RB_EXPONENT
-            for g in gases}
+    return {g: scale * (schmidt_number(g, temperature, pressure, viscosity=nu) / PRANDTL_AIR)
+            ** RB_EXPONENT for g in gases}
 
 
 def deposition_velocity(ra, rb, rc, compensation=None):

@@ -175,6 +175,9 @@ class RawTable:
     def numbers(self, name, *, censoring=False):
         """Parse a numeric column.
 
+        One parse of the whole column; the text checks look only at the cells that did
+        not parse (most columns have none).
+
         Returns
         -------
         values : ndarray of float
@@ -183,43 +186,24 @@ class RawTable:
             Only when `censoring` is True: cells written ``<x``.
         """
         s = self.frame[name]
-        if not censoring:
-            return self._plain_numbers(name, s)
-        cens = s.str.startswith("<").to_numpy()
         body = s.str.lstrip("<").str.strip() if censoring else s
-        if not censoring and cens.any():
-            i = int(np.flatnonzero(cens)[0])
-            raise self.error("censored value not allowed here", row=i, column=name,
-                             value=s.iloc[i], expected="a number")
-        vals = pd.to_numeric(body.replace({m: np.nan for m in MISSING_TEXTS}), errors="coerce")
-        bad = vals.isna().to_numpy() & ~body.isin(MISSING_TEXTS).to_numpy()
-        if bad.any():
-            i = int(np.flatnonzero(bad)[0])
-            raise self.error("text in a numeric column", row=i, column=name,
-                             value=s.iloc[i], expected="a number (or empty for missing)"
-                             + (", or '<limit' below detection" if censoring else ""))
-        v = vals.to_numpy(dtype=float)
-        if censoring:
-            return v, cens
-        return v
-
-    def _plain_numbers(self, name, s: pd.Series) -> np.ndarray:
-        """:meth:`numbers` without censoring: one parse of the whole column, the text
-        checks only on the cells that did not parse (most columns have none)."""
-        v = pd.to_numeric(s, errors="coerce").to_numpy(dtype=float)
+        v = pd.to_numeric(body, errors="coerce").to_numpy(dtype=float)
         odd = np.flatnonzero(np.isnan(v))
         if len(odd):
-            sub = s.iloc[odd]
-            cens = sub.str.startswith("<").to_numpy()
-            if cens.any():
-                i = int(odd[np.flatnonzero(cens)[0]])
-                raise self.error("censored value not allowed here", row=i, column=name,
-                                 value=s.iloc[i], expected="a number")
-            bad = ~sub.isin(MISSING_TEXTS).to_numpy()
+            if not censoring:
+                cens = s.iloc[odd].str.startswith("<").to_numpy()
+                if cens.any():
+                    i = int(odd[np.flatnonzero(cens)[0]])
+                    raise self.error("censored value not allowed here", row=i, column=name,
+                                     value=s.iloc[i], expected="a number")
+            bad = ~body.iloc[odd].isin(MISSING_TEXTS).to_numpy()
             if bad.any():
                 i = int(odd[np.flatnonzero(bad)[0]])
                 raise self.error("text in a numeric column", row=i, column=name,
-                                 value=s.iloc[i], expected="a number (or empty for missing)")
+                                 value=s.iloc[i], expected="a number (or empty for missing)"
+                                 + (", or '<limit' below detection" if censoring else ""))
+        if censoring:
+            return v, s.str.startswith("<").to_numpy()
         return v
 
     def times(self, name, utc_offset_h) -> np.ndarray:

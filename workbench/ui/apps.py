@@ -13,7 +13,6 @@ import time
 from pathlib import Path
 
 import ipywidgets as widgets
-import plotly.graph_objects as go
 
 from . import figures, figures_dry, figures_wet
 from .assumptions import ASSUMPTIONS, Settings
@@ -26,6 +25,9 @@ from .summaries import UNITS, change_line, excluded_samples, mean_totals
 #: Tabs of the site explorer below the budget: name -> what the figure needs.
 TABS = ("monthly fluxes", "deposition velocity", "resistances", "ion balance",
         "capture efficiency", "excluded samples")
+#: Titles of the velocity tabs when no velocities were computed.
+NO_VELOCITIES = {"deposition velocity": "no deposition velocities (fixed or no met)",
+                 "resistances": "no resistances (fixed velocities or no met)"}
 #: Gases whose resistances may be shown.
 GASES = ("SO2", "HNO3", "NH3", "NO2")
 
@@ -182,50 +184,36 @@ class SiteExplorer(widgets.VBox):
 
     # ------------------------------------------------------------------ figures
     def _figure(self, name, template=None):
-        """The figure of a tab: a plotly Figure with `template` (to create a widget), or
-        for updates (no template: the widget keeps the one it was created with) the
-        figure's plain JSON spec."""
-        t = {"template": template}
+        """The figure of a tab: its plain JSON spec for updates (the widget keeps the
+        template it was created with), or a plotly Figure with `template` to create a
+        widget."""
+        spec = self._spec(name)
+        return spec if template is None else figures.from_spec(spec, template)
+
+    def _spec(self, name):
         r, site, rec, unit = self.result, self.site, self.receptor_w.value, self.unit_w.value
         off = self.session.utc_offset(site)
+        bounds = self.session.bounds(*self.years)
         if name == "budget":
-            if template is None:
-                return figures.budget_bars_spec(r.years, site, rec, None, unit)
-            return figures.budget_bars(r.years, site, rec, None, unit, **t)
+            return figures.budget_bars_spec(r.years, site, rec, None, unit)
         if name == "monthly fluxes":
             if r.options.get("resolution") != "month":
                 self.result = r = self.session.run(self.settings, site, *self.years, "month", rec)
-            if template is None:
-                return figures.monthly_fluxes_spec(r.budget, site, rec, unit)
-            return figures.monthly_fluxes(r.budget, site, rec, unit, **t)
+            return figures.monthly_fluxes_spec(r.budget, site, rec, unit)
+        if name in NO_VELOCITIES and r.velocities is None:
+            return {"data": [], "layout": {"title": {"text": NO_VELOCITIES[name]}}}
         if name == "deposition velocity":
-            if r.velocities is None:
-                return go.Figure(layout=dict(title="no deposition velocities (fixed or no met)"))
-            if template is None:
-                return figures_dry.velocity_diurnal_spec(r.velocities, site, rec, utc_offset_h=off)
-            return figures_dry.velocity_diurnal(r.velocities, site, rec, utc_offset_h=off, **t)
+            return figures_dry.velocity_diurnal_spec(r.velocities, site, rec, utc_offset_h=off)
         if name == "resistances":
-            if r.velocities is None:
-                return go.Figure(layout=dict(title="no resistances (fixed velocities or no met)"))
-            if template is None:
-                return figures_dry.resistance_breakdown_spec(r.velocities, site, rec,
-                                                             self.gas_w.value, off)
-            return figures_dry.resistance_breakdown(r.velocities, site, rec, self.gas_w.value, off, **t)
-        bounds = self.session.bounds(*self.years)
-        spec = template is None
+            return figures_dry.resistance_breakdown_spec(r.velocities, site, rec,
+                                                         self.gas_w.value, off)
         if name == "ion balance":
-            if spec:
-                return figures_wet.ion_balance_spec(r.screened, site, self.settings.wet, *bounds)
-            return figures_wet.ion_balance(r.screened, site, self.settings.wet, *bounds, **t)
+            return figures_wet.ion_balance_spec(r.screened, site, self.settings.wet, *bounds)
         if name == "capture efficiency":
-            if spec:
-                return figures_wet.capture_efficiency_spec(r.screened, site, self.settings.wet,
-                                                           *bounds)
-            return figures_wet.capture_efficiency(r.screened, site, self.settings.wet, *bounds, **t)
+            return figures_wet.capture_efficiency_spec(r.screened, site, self.settings.wet,
+                                                       *bounds)
         if name == "excluded samples":
-            if spec:
-                return figures_wet.excluded_by_reason_spec(r.screened, site, *bounds)
-            return figures_wet.excluded_by_reason(r.screened, site, *bounds, **t)
+            return figures_wet.excluded_by_reason_spec(r.screened, site, *bounds)
         raise KeyError(name)
 
     def _tab_key(self, name):

@@ -110,8 +110,9 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
     return {"data": traces, "layout": layout}
 
 
-def _figure(spec: dict, template=TEMPLATE, fig=None) -> go.Figure:
-    """A plotly Figure (validated) from a spec, with the template."""
+def from_spec(spec: dict, template=TEMPLATE, fig=None) -> go.Figure:
+    """A plotly Figure (validated) from a spec of a ``*_spec`` function, with the
+    template (traces and layout added to `fig` when given)."""
     if fig is None:
         fig = go.Figure(data=spec["data"], layout=spec["layout"])
     else:
@@ -119,6 +120,20 @@ def _figure(spec: dict, template=TEMPLATE, fig=None) -> go.Figure:
         fig.update_layout(spec["layout"])
     fig.update_layout(template=template)
     return fig
+
+
+@functools.lru_cache(maxsize=None)
+def subplot_layout(rows: int, cols: int, **options) -> tuple:
+    """Layout JSON of ``make_subplots(rows, cols, **options)`` (built once per set of
+    options; they must be hashable) and the (x, y) axis names (``"xaxis2"`` ...) of
+    each subplot, row by row."""
+    fig = make_subplots(rows=rows, cols=cols, **options)
+    axes = []
+    for row in range(1, rows + 1):
+        for col in range(1, cols + 1):
+            sub = fig.get_subplot(row, col)
+            axes.append((sub.xaxis.plotly_name, sub.yaxis.plotly_name))
+    return json.dumps(fig.layout.to_plotly_json()), tuple(axes)
 
 
 def budget_bars(ds, site, receptor, period=None, unit="kg/ha/yr", fig=None, template=TEMPLATE):
@@ -148,26 +163,14 @@ def budget_bars(ds, site, receptor, period=None, unit="kg/ha/yr", fig=None, temp
         Ten bar traces (one per component, in the budget's order) and one scatter
         trace of the totals.
     """
-    return _figure(budget_bars_spec(ds, site, receptor, period, unit), template, fig)
-
-
-@functools.lru_cache(maxsize=None)
-def _two_rows_layout() -> tuple:
-    """Layout JSON of two rows sharing the x axis (from plotly's make_subplots, once)
-    and the axis names of each row."""
-    fig = make_subplots(rows=2, cols=1, shared_xaxes=True, vertical_spacing=0.08,
-                        subplot_titles=("sulfur", "nitrogen"))
-    axes = []
-    for row in (1, 2):
-        sub = fig.get_subplot(row, 1)
-        axes.append((sub.xaxis.plotly_name, sub.yaxis.plotly_name))
-    return json.dumps(fig.layout.to_plotly_json()), tuple(axes)
+    return from_spec(budget_bars_spec(ds, site, receptor, period, unit), template, fig)
 
 
 def monthly_fluxes_spec(ds_month, site, receptor, unit="kg/ha/yr") -> dict:
     """The figure of :func:`monthly_fluxes` as plain plotly JSON (no template)."""
     t = monthly_amounts(ds_month, site, receptor, unit)
-    base, axes = _two_rows_layout()
+    base, axes = subplot_layout(2, 1, shared_xaxes=True, vertical_spacing=0.08,
+                                subplot_titles=("sulfur", "nitrogen"))
     layout = json.loads(base)
     traces = []
     for (xname, yname), el in zip(axes, ELEMENTS):
@@ -211,7 +214,7 @@ def monthly_fluxes(ds_month, site, receptor, unit="kg/ha/yr", template=TEMPLATE)
     plotly.graph_objects.Figure
         Four traces: S wet, S dry, N wet, N dry.
     """
-    return _figure(monthly_fluxes_spec(ds_month, site, receptor, unit), template)
+    return from_spec(monthly_fluxes_spec(ds_month, site, receptor, unit), template)
 
 
 def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr", template=TEMPLATE):

@@ -6,14 +6,12 @@ of each hour.
 """
 from __future__ import annotations
 
-import functools
 import json
 
 import numpy as np
-import plotly.graph_objects as go
-from plotly.subplots import make_subplots
 
 from ..periods import SEASON_NAMES
+from .figures import from_spec, subplot_layout
 from .palette import RESISTANCE_COLOURS, SPECIES_COLOURS, TEMPLATE
 from .summaries import (CM_PER_M, hour_season_slots, hourly_series, local_hour_and_season,
                         slot_statistic)
@@ -31,21 +29,10 @@ def _local(utc_offset_h):
     return f"hour of day (UTC{float(utc_offset_h):+g} h)"
 
 
-def _season_panels():
-    return make_subplots(rows=1, cols=len(SEASON_NAMES), shared_yaxes=True,
-                         subplot_titles=SEASON_NAMES, horizontal_spacing=0.03)
-
-
-@functools.lru_cache(maxsize=None)
 def _season_panels_layout() -> tuple:
-    """Layout JSON of the four season panels (plotly's make_subplots, once) and the
-    (x, y) axis names of each panel."""
-    fig = _season_panels()
-    axes = []
-    for col in range(1, len(SEASON_NAMES) + 1):
-        sub = fig.get_subplot(1, col)
-        axes.append((sub.xaxis.plotly_name, sub.yaxis.plotly_name))
-    return json.dumps(fig.layout.to_plotly_json()), tuple(axes)
+    """Layout JSON of the four season panels and the (x, y) axis names of each."""
+    return subplot_layout(1, len(SEASON_NAMES), shared_yaxes=True,
+                          subplot_titles=tuple(SEASON_NAMES), horizontal_spacing=0.03)
 
 
 def _panels(traces, utc_offset_h, y_axis: dict, title: str, legend: str) -> dict:
@@ -135,8 +122,7 @@ def velocity_diurnal(vel, site, receptor, species=DRY_SPECIES, utc_offset_h=0.0,
     plotly.graph_objects.Figure
         One trace per species and season (in that order), Vd in cm s-1.
     """
-    spec = velocity_diurnal_spec(vel, site, receptor, species, utc_offset_h)
-    return go.Figure(spec["data"], spec["layout"]).update_layout(template=template)
+    return from_spec(velocity_diurnal_spec(vel, site, receptor, species, utc_offset_h), template)
 
 
 def resistance_breakdown_spec(vel, site, receptor, gas="SO2", utc_offset_h=0.0) -> dict:
@@ -186,5 +172,4 @@ def resistance_breakdown(vel, site, receptor, gas="SO2", utc_offset_h=0.0, templ
     plotly.graph_objects.Figure
         One trace per resistance (ra, rb, rc, total) and season; log y axis [s m-1].
     """
-    spec = resistance_breakdown_spec(vel, site, receptor, gas, utc_offset_h)
-    return go.Figure(spec["data"], spec["layout"]).update_layout(template=template)
+    return from_spec(resistance_breakdown_spec(vel, site, receptor, gas, utc_offset_h), template)

@@ -7,10 +7,10 @@ and the same function (:func:`workbench.wet.qa.tier_limit`) that screen the samp
 from __future__ import annotations
 
 import numpy as np
-import plotly.graph_objects as go
 
 from ..wet.options import WetOptions
 from ..wet.qa import tier_limit
+from .figures import from_spec
 from .palette import ENVELOPE_FILL, OKABE_ITO, SAMPLE_STATUS_STYLE, TEMPLATE
 from .summaries import in_span, reason_counts
 
@@ -64,10 +64,6 @@ def ion_balance_envelope(tiers, upper: float, lower: float = ENVELOPE_LOW):
     an = np.concatenate([an_hi, ce_hi[::-1]])
     ce = np.concatenate([ce_hi, an_hi[::-1]])
     return an, ce
-
-
-def _figure(spec: dict, template) -> go.Figure:
-    return go.Figure(spec["data"], spec["layout"]).update_layout(template=template)
 
 
 def _markers(x, y, st, count, hover, hovertemplate) -> dict:
@@ -129,7 +125,7 @@ def ion_balance(screened, site=None, options: WetOptions | None = None, start=No
         Traces: the envelope, the 1:1 line, then one per status (used, flagged,
         excluded); log axes.
     """
-    return _figure(ion_balance_spec(screened, site, options, start, end), template)
+    return from_spec(ion_balance_spec(screened, site, options, start, end), template)
 
 
 def capture_efficiency_spec(screened, site=None, options: WetOptions | None = None, start=None,
@@ -187,7 +183,7 @@ def capture_efficiency(screened, site=None, options: WetOptions | None = None, s
         Traces: the rain range (band), the snow range (band), then one per status;
         log x axis (gauge depth [mm]).
     """
-    return _figure(capture_efficiency_spec(screened, site, options, start, end), template)
+    return from_spec(capture_efficiency_spec(screened, site, options, start, end), template)
 
 
 def excluded_by_reason_spec(screened, site=None, start=None, end=None) -> dict:
@@ -221,4 +217,4 @@ def excluded_by_reason(screened, site=None, start=None, end=None, template=TEMPL
     plotly.graph_objects.Figure
         Two bar traces: excluded, flagged.
     """
-    return _figure(excluded_by_reason_spec(screened, site, start, end), template)
+    return from_spec(excluded_by_reason_spec(screened, site, start, end), template)

@@ -52,7 +52,7 @@ def _as_list(periods, ds):
 
 
 def _picker(ds: xr.Dataset, site, receptor, labels=None):
-    """Plain-numpy selection of one site and receptor (and some periods) of a budget.
+    """Plain-numpy selection of one site and receptor (and some periods) of a Dataset.
 
     ``ds.sel`` costs about a millisecond a call; the figures of an app read a dozen
     variables on every change, so they index the arrays directly.  Returns a function
@@ -264,16 +264,9 @@ def _by_hour_season(values: np.ndarray, hour, season, how: str):
 
 def hourly_series(vel: xr.Dataset, site, receptor):
     """``get(name)``: the hourly values of a (site, receptor, time) variable of one site
-    and receptor, without ``Dataset.sel`` (which indexes every variable)."""
-    i_site = vel.indexes["site"].get_loc(site)
-    i_rec = vel.indexes["receptor"].get_loc(receptor)
-
-    def get(name):
-        v = vel.variables[name]
-        idx = tuple(i_site if d == "site" else i_rec if d == "receptor" else slice(None)
-                    for d in v.dims)
-        return np.asarray(v.values[idx], dtype=float)
-    return get
+    and receptor as floats, without ``Dataset.sel`` (see :func:`_picker`)."""
+    pick = _picker(vel, site, receptor)
+    return lambda name: np.asarray(pick(name), dtype=float)
 
 
 def diurnal_velocity(vel: xr.Dataset, site, receptor, species, utc_offset_h=0.0) -> pd.DataFrame:
