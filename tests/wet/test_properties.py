@@ -104,7 +104,8 @@ def test_scaling_all_depths_keeps_pwm_and_scales_flux(rows, factor):
 
 
 @SETTINGS
-@given(sample_rows(max_size=14, flags=("", "", "C", "G", "T", "V", "E", "X")),
+@given(sample_rows(max_size=14, flags=("", "", "contaminated", "gauge_failed", "trace",
+                                                 "invalid_record", "depth_estimated", "sample_lost")),
        st.sampled_from(["month", "season", "year"]))
 def test_ledger_counts_add_up(rows, resolution):
     sc, wet = _run(rows, resolution)
