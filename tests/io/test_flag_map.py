@@ -75,8 +75,8 @@ def test_map_translates_lab_codes_and_the_screen_acts_on_them(write, cat):
                                            "", "lid_open gauge_failed"]
     note = [n for n in ledger.notes if "translated" in n]
     assert note == ["p.csv: lab flag codes translated with lab_codes.toml: K1 -> contaminated "
-                    "(1 rows), EST2 -> depth_estimated contaminated (1 rows), tr -> trace (1 rows), "
-                    "ok -> (nothing) (1 rows), LD -> lid_open (1 rows)"]
+                    "(1 row), EST2 -> depth_estimated contaminated (1 row), tr -> trace (1 row), "
+                    "ok -> (nothing) (1 row), LD -> lid_open (1 row)"]
     sc = screen(ds)
     # contaminated / lid_open: chemistry invalid; "ok" carries nothing: the sample is used
     assert sc["chemistry_valid"].values.tolist() == [False, False, True, False]

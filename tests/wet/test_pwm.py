@@ -166,7 +166,8 @@ def test_seasonal_fill_of_a_failed_month():
         depth = 20.0 + 7 * (k % 5)
         so4 = 10.0 + 3 * (k % 7)
         bad = s == pd.Timestamp("2022-07-01")
-        rows.append(dict(start=str(s), end=str(e), gauge_depth=depth, flags="contaminated" if bad else "",
+        rows.append(dict(start=str(s), end=str(e), gauge_depth=depth,
+                         flags="contaminated" if bad else "",
                          **balanced(so4, 20, 10)))
         if s.month in (6, 7, 8) and not bad:
             jja.append((so4, depth))

@@ -158,10 +158,10 @@ def test_gauge_fill_from_collector_then_met():
     # collector depth 9 mm is filled with 9 / 0.9 = 10 mm
     rows = [_sample(start=week(f"2021-05-{d:02d}")[0], end=week(f"2021-05-{d:02d}")[1],
                     gauge_depth=20.0, sample_depth=18.0, **GOOD) for d in (3, 10, 17, 24, 31)]
-    rows.append(_sample(start="2021-06-07", end="2021-06-14", flags="gauge_failed", gauge_depth=np.nan,
-                        sample_depth=9.0, **GOOD))
-    rows.append(_sample(start="2021-06-14", end="2021-06-21", flags="gauge_failed", gauge_depth=np.nan,
-                        sample_depth=np.nan, **GOOD))
+    rows.append(_sample(start="2021-06-07", end="2021-06-14", flags="gauge_failed",
+                        gauge_depth=np.nan, sample_depth=9.0, **GOOD))
+    rows.append(_sample(start="2021-06-14", end="2021-06-21", flags="gauge_failed",
+                        gauge_depth=np.nan, sample_depth=np.nan, **GOOD))
     # hourly met: 0.1 mm/h everywhere -> 16.8 mm a week; the gauge saw 20 mm a week,
     # so the scale is 20/16.8 and the last sample gets 20 mm
     met = make_met(["A"], "2021-05-01", "2021-07-01", precipitation=0.1)

@@ -93,7 +93,8 @@ def _flag_words(tab, flag_text, flag_map):
         return codes.str.join(" ").to_numpy(dtype=object), ""
     used = each[lab].groupby(level=0).unique().explode().value_counts(sort=False)
     note = f"lab flag codes translated with {map_name}: " + ", ".join(
-        f"{c} -> {' '.join(flag_map[c]) or '(nothing)'} ({k} rows)" for c, k in used.items())
+        f"{c} -> {' '.join(flag_map[c]) or '(nothing)'} ({k} row{'s' * (k != 1)})"
+        for c, k in used.items())
     words = each.where(~lab, each.map({c: " ".join(w) for c, w in flag_map.items()}))
     words = words.str.split().explode().dropna()
     joined = words.groupby(level=0).agg(" ".join)
