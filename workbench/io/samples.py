@@ -16,7 +16,9 @@ from .. import species as _species
 from ..constants import GAS_CONSTANT
 from ..errors import InputError
 from ..units import Q_, convert_plain, to_amount
-from .common import check_intervals, check_overlaps, check_sites, join_reasons, unit_error
+from . import plausible as _plausible
+from .common import (check_intervals, check_overlaps, check_sites, duplicate_rows, join_reasons,
+                     unit_error)
 from .ledger import Ledger
 from .table import RawTable
 
@@ -40,8 +42,13 @@ def _species_columns(tab: RawTable, allowed):
     return out
 
 
-def _concentrations(tab, cols, kinds_allowed, ledger_parts, n):
-    """Parse species columns into amounts, with censoring. Returns dict of arrays."""
+def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None):
+    """Parse species columns into amounts, with censoring. Returns dict of arrays.
+
+    A missing-value code typed as a value (``-999``, ``9999``...) is masked and flagged;
+    with `groups` (air files: one site-and-sampler label per row) the range and
+    unit-slip checks of :mod:`workbench.io.plausible` run too.
+    """
     data = {}
     for sp, name in cols.items():
         h = tab.headers[name]
@@ -55,6 +62,16 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n):
         if kind not in kinds_allowed:
             raise unit_error(tab, name, ValueError(f"a {kind.replace('_', ' ')}"),
                              " or ".join(k.replace("_", " ") for k in kinds_allowed))
+        sentinel = ~cens & _plausible.sentinel_mask(raw)
+        ledger_parts.append(np.where(sentinel, f"{sp} " + tab.frame[name].to_numpy(dtype=object)
+                                     .astype(str) + " looks like a missing-value code (masked)", ""))
+        masked = sentinel
+        if groups is not None:
+            bad, why = _plausible.air_checks(sp, _plausible.as_ugm3(np.where(sentinel, np.nan, amount),
+                                                                     kind, sp), cens, groups)
+            masked = masked | bad
+            ledger_parts.append(why)
+        amount = np.where(masked, np.nan, amount)
         neg = (~cens) & (amount < 0)
         value = np.where(cens | neg, np.nan, amount)
         dl = np.where(cens, amount, np.nan)
@@ -75,6 +92,8 @@ def _interval_table(path, catalogue, required):
     check_intervals(tab, start, end)
     samplers = tab.text("sampler_id") if tab.has("sampler_id") else np.full(n, "", object)
     return tab, n, sites, start, end, samplers
+
+
 
 
 def read_precipitation(path, catalogue):
@@ -100,8 +119,9 @@ def read_precipitation(path, catalogue):
         0-14, end before start, overlapping samples, unknown site or flag code, empty file.
     """
     tab, n, sites, start, end, samplers = _interval_table(path, catalogue, PRECIP_REQUIRED)
-    check_overlaps(tab, sites, samplers, start, end)
-    parts = []
+    repeat, repeat_why = duplicate_rows(tab, sites, samplers, start, end, "sample")
+    check_overlaps(tab, sites, samplers, start, end, mask=~repeat)
+    parts = [repeat_why]
 
     def depth(name):
         raw, unit = tab.numbers(name), tab.unit_of(name)
@@ -109,6 +129,11 @@ def read_precipitation(path, catalogue):
             v = convert_plain(raw, unit, "mm")
         except ValueError as exc:
             raise unit_error(tab, name, exc, "a depth unit such as mm") from None
+        sentinel = _plausible.sentinel_mask(raw)
+        if sentinel.any():
+            parts.append(np.where(sentinel, f"{name.replace('_', ' ')} " + tab.frame[name].to_numpy(
+                dtype=object).astype(str) + " looks like a missing-value code (masked)", ""))
+            v = np.where(sentinel, np.nan, v)
         if (v < 0).any():
             i = int(np.flatnonzero(v < 0)[0])
             raise tab.error("negative depth", row=i, column=name, value=tab.frame[name].iloc[i],
@@ -179,6 +204,7 @@ def read_precipitation(path, catalogue):
     reasons = join_reasons(parts)
     reasons = np.where(empty, join_reasons([reasons, np.full(n, "no values in the row", object)]),
                        reasons)
+    empty = empty | repeat
     ledger = Ledger.for_rows(tab.path, tab.lines, sites, reasons, empty)
     if unknown:
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
@@ -256,8 +282,10 @@ def read_air(path, catalogue, reference_state=None):
     if not cols:
         raise InputError("no species columns", file=tab.path, line=tab.header_line,
                          expected="at least one of " + ", ".join(_species.AIR_GASES + _species.AIR_PARTICLES))
-    parts = []
-    conc = _concentrations(tab, cols, ("amount_density", "mixing_ratio"), parts, n)
+    repeat, repeat_why = duplicate_rows(tab, sites, samplers, start, end, "air")
+    parts = [repeat_why]
+    groups = np.char.add(np.char.add(sites.astype(str), "\x1f"), samplers.astype(str))
+    conc = _concentrations(tab, cols, ("amount_density", "mixing_ratio"), parts, n, groups)
     ref_text = tab.meta.get("reference_state", reference_state)
     needs_ref = any(k == "amount_density" for *_, k in conc.values())
     ref = None
@@ -284,7 +312,7 @@ def read_air(path, catalogue, reference_state=None):
             methods[sp] = method_all
     for sp in cols:
         v, c, _, _ = conc[sp]
-        check_overlaps(tab, sites, samplers, start, end, mask=~np.isnan(v) | c,
+        check_overlaps(tab, sites, samplers, start, end, mask=(~np.isnan(v) | c) & ~repeat,
                        what=f"{sp} period")
     has_val = np.zeros(n, bool)
     for v, c, _, _ in conc.values():
@@ -292,6 +320,7 @@ def read_air(path, catalogue, reference_state=None):
     reasons = join_reasons(parts)
     empty = ~has_val
     reasons = np.where(empty, join_reasons([reasons, np.full(n, "no values in the row", object)]), reasons)
+    empty = empty | repeat
     ledger = Ledger.for_rows(tab.path, tab.lines, sites, reasons, empty)
     known = set(AIR_REQUIRED) | {"sampler_id", "method"} | set(cols.values()) | {
         f"method_{s}" for s in cols} | {f"{s}_method" for s in cols}
