@@ -11,10 +11,15 @@ from .table import RawTable
 def check_sites(tab: RawTable, catalogue) -> np.ndarray:
     """The ``site`` column as an array, every value checked against the catalogue."""
     sites = tab.text("site")
-    known = np.isin(sites, np.array(catalogue.ids, dtype=object))
+    known = pd.Series(sites).isin(catalogue.ids).to_numpy()      # hashed: linear in rows
     if not known.all():
         i = int(np.flatnonzero(~known)[0])
-        raise tab.error("site not in the catalogue", row=i, column="site", value=sites[i],
+        hint = ""
+        if sites[i].strip().lower() == "site":
+            hint = " (a repeated header line? keep one header at the top)"
+        elif sites[i] == "" or sites[i].strip().lower().startswith(("total", "sum", "mean", "average")):
+            hint = " (a totals or summary row from a spreadsheet? remove it)"
+        raise tab.error("site not in the catalogue" + hint, row=i, column="site", value=sites[i],
                         expected="one of " + ", ".join(catalogue.ids) + suggest(sites[i], catalogue.ids))
     return sites
 

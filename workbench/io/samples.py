@@ -14,7 +14,7 @@ import xarray as xr
 from .. import flags as _flags
 from .. import species as _species
 from ..constants import GAS_CONSTANT
-from ..errors import InputError
+from ..errors import InputError, suggest
 from ..units import Q_, convert_plain, to_amount
 from . import plausible as _plausible
 from .common import (check_intervals, check_overlaps, check_sites, duplicate_rows, join_reasons,
@@ -26,12 +26,27 @@ PRECIP_REQUIRED = ("site", "start", "end", "gauge_depth")
 PRECIP_OPTIONAL = ("sample_depth", "sample_volume", "collector_area", "pH", "conductivity",
                    "sampler_id", "flags")
 AIR_REQUIRED = ("site", "start", "end")
+#: Columns with a unit that are not species even when their names look alike.
+_NOT_SPECIES = ("gauge_depth", "sample_depth", "sample_volume", "collector_area", "ph",
+                "conductivity")
 
 
-def _species_columns(tab: RawTable, allowed):
-    """Map species -> column name, refusing two columns for one species."""
+def _species_columns(tab: RawTable, allowed, what):
+    """Map species -> column name, refusing two columns for one species, a species of
+    the other file kind (``SO4`` in an air file) and a misspelt species (``S02``)."""
     out = {}
+    choices = [f"{sp}{b}" for sp in allowed for b in ("", "_as_S", "_as_N")
+               if not b or _species.get(sp).element == b[-1]]
     for name, h in tab.headers.items():
+        if h.species is not None and h.species not in allowed:
+            raise InputError(f"species not measured in {what} files", file=tab.path,
+                             line=tab.header_line, column=tab.raw_headers[name], value=h.species,
+                             expected="one of " + ", ".join(allowed) + suggest(h.name, choices))
+        if h.species is None and h.unit and suggest(h.name, choices) and \
+                h.name.lower() not in _NOT_SPECIES:
+            raise InputError("unknown species", file=tab.path, line=tab.header_line,
+                             column=tab.raw_headers[name], value=h.name,
+                             expected="one of " + ", ".join(allowed) + suggest(h.name, choices))
         if h.species in allowed:
             if h.species in out:
                 raise InputError("two columns for one species", file=tab.path,
@@ -192,7 +207,7 @@ def read_precipitation(path, catalogue):
                         expected="codes among " + " ".join(_flags.FLAGS))
     flag_norm = codes.str.join(" ").to_numpy(dtype=object)
     parts.append(np.where(flag_norm != "", "flags " + flag_norm.astype(str), ""))
-    ion_cols = _species_columns(tab, _species.PRECIP_IONS)
+    ion_cols = _species_columns(tab, _species.PRECIP_IONS, "precipitation")
     conc = _concentrations(tab, ion_cols, ("amount_density",), parts, n)
     parts.append(np.where(np.isnan(gauge), "gauge depth missing", ""))
     known = set(PRECIP_REQUIRED + PRECIP_OPTIONAL) | set(ion_cols.values())
@@ -278,7 +293,7 @@ def read_air(path, catalogue, reference_state=None):
     ledger : Ledger
     """
     tab, n, sites, start, end, samplers = _interval_table(path, catalogue, AIR_REQUIRED)
-    cols = _species_columns(tab, _species.AIR_GASES + _species.AIR_PARTICLES)
+    cols = _species_columns(tab, _species.AIR_GASES + _species.AIR_PARTICLES, "air")
     if not cols:
         raise InputError("no species columns", file=tab.path, line=tab.header_line,
                          expected="at least one of " + ", ".join(_species.AIR_GASES + _species.AIR_PARTICLES))

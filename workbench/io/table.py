@@ -11,6 +11,7 @@ import gzip
 import io
 import re
 import warnings
+import zlib
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -38,13 +39,27 @@ def _open_text(path: Path) -> str:
         raise InputError("file not found", file=path, expected="an existing file") from None
     except IsADirectoryError:
         raise InputError("is a directory", file=path, expected="a file") from None
-    if path.suffix == ".gz":
-        raw = gzip.decompress(raw)
+    except PermissionError:
+        raise InputError("file cannot be read (permission denied)", file=path,
+                         expected="a readable file") from None
+    if path.suffix == ".gz" or raw[:2] == b"\x1f\x8b":
+        try:
+            raw = gzip.decompress(raw)
+        except (OSError, EOFError, zlib.error) as exc:   # BadGzipFile is an OSError
+            raise InputError(f"not a readable gzip file ({exc or type(exc).__name__})", file=path,
+                             expected="a complete .gz file (gzip -t to test it), or the "
+                             "uncompressed file without .gz") from None
+    if raw[:4] in (b"PK\x03\x04", b"\xd0\xcf\x11\xe0"):
+        raise InputError("a spreadsheet workbook, not a CSV text file", file=path,
+                         expected="the sheet exported as CSV (UTF-8, comma-separated)")
     try:
         return raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
-        raise InputError("file is not UTF-8 text", file=path,
-                         value=f"byte {exc.start}", expected="a UTF-8 CSV file") from None
+        line = raw[:exc.start].count(b"\n") + 1
+        text = raw[raw.rfind(b"\n", 0, exc.start) + 1:].split(b"\n")[0].decode("latin-1").strip()
+        raise InputError(f"file is not UTF-8 text (byte 0x{raw[exc.start]:02x} at byte offset "
+                         f"{exc.start})", file=path, line=line, value=text,
+                         expected="a UTF-8 CSV file (Latin-1 or Windows-1252? save as UTF-8)") from None
 
 
 @dataclass
@@ -97,6 +112,13 @@ class RawTable:
         if not any(ln.strip() for ln in rest):
             raise InputError("empty file", file=path, expected="a header line and data rows")
         body = "\n".join(rest)
+        head = next(ln for ln in rest if ln.strip())
+        if head.count(";") > head.count(",") or head.count("\t") > head.count(","):
+            sep = "semicolon" if head.count(";") >= head.count("\t") else "tab"
+            raise InputError(f"{sep}-separated header (a spreadsheet export in a "
+                             "decimal-comma locale?)", file=path, line=n_meta + 1,
+                             value=head[:60], expected="comma-separated values with a "
+                             "decimal point (export as 'CSV UTF-8, comma-delimited')")
         try:
             with warnings.catch_warnings():
                 warnings.simplefilter("error", pd.errors.ParserWarning)
@@ -233,7 +255,10 @@ class RawTable:
         bad = t.isna().to_numpy()
         if bad.any():
             idx = s.index[np.flatnonzero(bad)[0]]
-            raise self.error("not an ISO 8601 timestamp", row=int(idx), column=name,
+            hint = ""
+            if re.fullmatch(r"\d{5}(\.\d*)?", str(s.loc[idx])):
+                hint = " (an Excel date serial number? format the column as a date first)"
+            raise self.error("not an ISO 8601 timestamp" + hint, row=int(idx), column=name,
                              value=s.loc[idx], expected="a timestamp such as 2020-01-07T09:00 "
                              "or 2020-01-07T09:00+01:00")
 
