@@ -180,7 +180,10 @@ def _read_met_netcdf(path: Path, catalogue):
         raw = xr.open_dataset(path)
         raw.load()
     except Exception as exc:  # many engines, many error types
-        raise InputError(f"cannot open NetCDF ({type(exc).__name__}: {exc})", file=path,
+        first = str(exc).strip().splitlines()[0][:160] if str(exc).strip() else ""
+        hint = (" (reading NetCDF needs the scipy or netCDF4 package)"
+                if "backends" in str(exc) else "")
+        raise InputError(f"cannot open NetCDF ({type(exc).__name__}: {first}){hint}", file=path,
                          expected="a NetCDF file") from None
     with raw:
         return _netcdf_body(raw, path, catalogue)

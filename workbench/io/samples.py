@@ -298,6 +298,12 @@ def read_air(path, catalogue, reference_state=None):
         raise InputError("no species columns", file=tab.path, line=tab.header_line,
                          expected="at least one of " + ", ".join(_species.AIR_GASES + _species.AIR_PARTICLES))
     repeat, repeat_why = duplicate_rows(tab, sites, samplers, start, end, "air")
+    for sp, name in cols.items():
+        u = tab.headers[name].unit or ""
+        if re.search(r"/\s*[munµ]?[lL]\b", u):
+            raise InputError("a liquid concentration unit in an air file", file=tab.path,
+                             line=tab.header_line, column=tab.raw_headers[name], value=u,
+                             expected="an air concentration unit such as ug/m3 or ppb")
     parts = [repeat_why]
     groups = np.char.add(np.char.add(sites.astype(str), "\x1f"), samplers.astype(str))
     conc = _concentrations(tab, cols, ("amount_density", "mixing_ratio"), parts, n, groups)
