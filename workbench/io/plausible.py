@@ -6,9 +6,9 @@ row flagged with a hint, so that the ledger says what happened to it:
 * a missing-value code typed as a value (-999, 9999, ...): masked;
 * a negative concentration below the blank-subtraction tolerance of its species:
   masked (a small negative stays censored, as before);
-* an air concentration above the plausible maximum of its species: masked; when the
-  median of a whole sampler's series sits above the maximum and a factor 1000 brings
-  it back into range, the hint names the likely unit slip (mg/m3 read as ug/m3).
+* an air concentration above the plausible maximum of its species: masked; when more
+  than half of a sampler's values sit above the maximum and a factor 1000 brings them
+  back into range, the hint names the likely unit slip (mg/m3 read as ug/m3).
 
 The thresholds are in :data:`AIR_RANGES`, each with its source.
 """
@@ -114,8 +114,10 @@ def air_checks(species: str, ugm3, censored, groups):
                         "(masked)")
     too_high = v > hi
     if too_high.any():
-        med = pd.Series(v).groupby(pd.Series(groups)).transform("median").to_numpy()
-        slip = too_high & (med > hi) & (med / UNIT_SLIP <= hi)
+        g = pd.Series(groups)
+        share = (pd.Series(too_high.astype(float)).where(~np.isnan(v)).groupby(g)
+                 .transform("mean").to_numpy())
+        slip = too_high & (share > 0.5) & (v / UNIT_SLIP <= hi)
         reasons[too_high & ~slip] = (f"{species} above the plausible {hi:g} ug/m3 (masked)")
         reasons[slip] = (f"{species} values look {UNIT_SLIP:g}x too high at this sampler: "
                          "mg/m3 read as ug/m3? (masked)")
