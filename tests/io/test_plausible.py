@@ -144,3 +144,11 @@ def test_slip_needs_the_whole_sampler():
     bad, why = air_checks("SO2", v, np.zeros(4, bool), np.array(["a"] * 4))
     assert bad.tolist() == [False, False, True, False]
     assert why[2] == "SO2 above the plausible 500 ug/m3 (masked)"
+
+
+def test_docs_carry_the_ranges_table():
+    """docs/data_formats.md shows the ranges the code uses, with their sources."""
+    from pathlib import Path
+    from workbench.io.plausible import ranges_table
+    doc = (Path(__file__).resolve().parents[2] / "docs" / "data_formats.md").read_text()
+    assert ranges_table() in doc
