@@ -123,6 +123,26 @@ CSV_CASES = {
         read_air, "a.csv", AIR.replace("NH3 [ug/m3]", "NH3 [mg/L]"),
         ["a.csv, line 2, column 'NH3 [mg/L]': a liquid concentration unit in an air file: "
          "got 'mg/L', expected an air concentration unit such as ug/m3 or ppb"]),
+    "quote_left_open": (
+        read_precipitation, "p.csv", _text(PRECIP, (",12.0,", ',"12.0,')),
+        ["p.csv, line 2: a quote opened and not closed: got 'alpha,2020-01-07T09:00,",
+         'expected quotes in pairs ("...") around a cell']),
+    "quotes_swallowing_a_line": (
+        read_precipitation, "p.csv", _text(PRECIP, (",12.0,", ',"12.0,'), (",5.1,12.0,", ',5.1,12.0",')),
+        ["p.csv, line 2, column 'gauge_depth [mm]': a quote opened and not closed (the cell "
+         "runs over several lines): got '12.0,11.0,4.8", 'expected quotes in pairs']),
+    "overflowing_number": (
+        read_precipitation, "p.csv", _text(PRECIP, (",12.0,", ",1e400,")),
+        ["p.csv, line 2, column 'gauge_depth [mm]': not a finite number: got '1e400'",
+         "expected a finite number"]),
+    "year_typed_2202": (
+        read_air, "a.csv", _text(AIR, ("2020-01-14T09:00,fp1,2.0", "2202-01-14T09:00,fp1,2.0")),
+        ["a.csv, line 3, column 'end': timestamp outside the years 1900-2099 (a typing slip",
+         "got '2202-01-14T09:00'", "expected a timestamp in 1900-2099"]),
+    "empty_site_cell": (
+        read_precipitation, "p.csv", _text(PRECIP, ("alpha,2020-01-21", ",2020-01-21")),
+        ["p.csv, line 4, column 'site': site not in the catalogue (an empty site cell): got ''",
+         "expected one of alpha, beta"]),
     "met_semicolon_export": (
         read_met, "m.csv", met_text(n_hours=3).replace(",", ";"),
         ["m.csv, line 2: semicolon-separated header", "expected comma-separated"]),

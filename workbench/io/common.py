@@ -17,7 +17,9 @@ def check_sites(tab: RawTable, catalogue) -> np.ndarray:
         hint = ""
         if sites[i].strip().lower() == "site":
             hint = " (a repeated header line? keep one header at the top)"
-        elif sites[i] == "" or sites[i].strip().lower().startswith(("total", "sum", "mean", "average")):
+        elif sites[i] == "":
+            hint = " (an empty site cell)"
+        elif sites[i].strip().lower().startswith(("total", "sum", "mean", "average")):
             hint = " (a totals or summary row from a spreadsheet? remove it)"
         raise tab.error("site not in the catalogue" + hint, row=i, column="site", value=sites[i],
                         expected="one of " + ", ".join(catalogue.ids) + suggest(sites[i], catalogue.ids))

@@ -23,6 +23,8 @@ from ..units import Header, parse_header
 
 _OFFSET = re.compile(r"[T ]\d\d.*(?:Z|[+-]\d\d(?::?\d\d)?)$")
 
+#: Timestamps outside [YEARS[0], YEARS[1]) are typing slips in the year (common practice).
+YEARS = (np.datetime64("1900-01-01", "ns"), np.datetime64("2100-01-01", "ns"))
 #: Cell texts read as a missing number.
 MISSING_TEXTS = ("", "NA", "NaN", "nan")
 #: Any blank but the line break (what ``str.strip`` removes, as ``str.isspace``): the
@@ -126,6 +128,11 @@ class RawTable:
                                  skip_blank_lines=False, skipinitialspace=True,
                                  index_col=False)
         except (pd.errors.ParserError, pd.errors.ParserWarning):
+            odd = [k for k, ln in enumerate(rest) if ln.count('"') % 2]
+            if odd:
+                raise InputError("a quote opened and not closed", file=path,
+                                 line=odd[0] + 1 + n_meta, value=rest[odd[0]][:60],
+                                 expected='quotes in pairs ("...") around a cell') from None
             rows = csv.reader(io.StringIO(body))
             n_head = len(next(rows))
             line = next((k + 2 + n_meta for k, r in enumerate(rows) if r and len(r) != n_head), None)
@@ -150,6 +157,14 @@ class RawTable:
         data = body[body.find("\n") + 1:] if "\n" in body else ""
         if '"' in data or _BLANK.search(data):            # else no cell has any to strip
             df = df.apply(lambda c: c.str.strip())
+        if '"' in data:                                   # a quote left open swallows lines
+            broken = df.apply(lambda c: c.str.contains("\n", regex=False)).to_numpy()
+            if broken.any():
+                r, c = (int(x[0]) for x in np.nonzero(broken))
+                raise InputError("a quote opened and not closed (the cell runs over several "
+                                 "lines)", file=path, line=int(lines[r]), column=raw[df.columns[c]],
+                                 value=df.iat[r, c].split("\n")[0][:40],
+                                 expected='quotes in pairs ("...") around a cell')
         return cls(path, meta, df, lines, headers, raw)
 
     # ------------------------------------------------------------------ helpers
@@ -224,6 +239,11 @@ class RawTable:
                 raise self.error("text in a numeric column", row=i, column=name,
                                  value=s.iloc[i], expected="a number (or empty for missing)"
                                  + (", or '<limit' below detection" if censoring else ""))
+        inf = np.isinf(v)
+        if inf.any():
+            i = int(np.flatnonzero(inf)[0])
+            raise self.error("not a finite number", row=i, column=name, value=s.iloc[i],
+                             expected="a finite number (or empty for missing)")
         if censoring:
             return v, s.str.startswith("<").to_numpy()
         return v
@@ -253,6 +273,13 @@ class RawTable:
 
     def _check_times(self, s, t, name):
         bad = t.isna().to_numpy()
+        tv = t.to_numpy() if not hasattr(t, "dt") or t.dt.tz is None else t.dt.tz_localize(None).to_numpy()
+        odd = ~bad & ((tv < YEARS[0]) | (tv >= YEARS[1]))
+        if odd.any():
+            idx = s.index[np.flatnonzero(odd)[0]]
+            raise self.error("timestamp outside the years 1900-2099 (a typing slip in the "
+                             "year?)", row=int(idx), column=name, value=s.loc[idx],
+                             expected="a timestamp in 1900-2099")
         if bad.any():
             idx = s.index[np.flatnonzero(bad)[0]]
             hint = ""
