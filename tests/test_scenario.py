@@ -101,6 +101,15 @@ BAD_SCENARIOS = {
                         "an ISO 8601 date"),
     "period_day_first": ("[period]\nend = \"31/12/2020\"\n",
                          "line 4, column 'period.end': not a date: got '31/12/2020'"),
+    "unknown_gas_in_dry_gases": ("[dry]\ngases = [\"SO2\", \"H2S\"]\n",
+                                 "line 4, column 'dry.gases': unknown gas: got 'H2S', expected "
+                                 "one of SO2, HNO3"),
+    "unknown_roughness_class": ("[dry]\nroughness = {grassland = [0.1, 0.05]}\n",
+                                "line 4, column 'dry.roughness': unknown land-use class: got "
+                                "'grassland', expected one of conifer_forest"),
+    "ion_for_air_species": ("[budget]\npreferred_method = {NH4 = \"passive\"}\n",
+                            "line 4, column 'budget.preferred_method': unknown air species: got "
+                            "'NH4', expected one of SO2"),
     "unknown_gas": ("[dry.fixed_velocity]\nSO3 = 0.5\n",
                     "line 4, column 'dry.fixed_velocity.SO3': unknown species, expected one of "
                     "SO2"),

@@ -200,6 +200,30 @@ def _check_option_section(section, cls, given, path, lines):
                             column=f"{section}.{key}" if key else section) from None
 
 
+def _check_names(section, given: dict, path, lines):
+    """Species and land-use names inside option values (``[dry] gases``,
+    ``[dry] roughness``, ``[budget] preferred_method``...): an unknown name is an
+    error with the nearest valid one, not an option silently without effect."""
+    from . import species as _species
+    from .landuse import LAND_USE
+    air = list(_species.AIR_GASES + _species.AIR_PARTICLES)
+    rules = {("dry", "gases"): (list(_species.AIR_GASES), "values", "gas"),
+             ("dry", "particles"): (list(_species.AIR_PARTICLES), "values", "particle species"),
+             ("dry", "roughness"): (list(LAND_USE), "keys", "land-use class"),
+             ("budget", "preferred_method"): (air, "keys", "air species"),
+             ("budget", "diurnal_profile"): (air, "keys", "air species")}
+    for (sec, key), (choices, where, what) in rules.items():
+        if sec != section or key not in given:
+            continue
+        value = given[key]
+        names = list(value) if isinstance(value, (list, dict)) else []
+        for name in names:
+            if not isinstance(name, str) or name not in choices:
+                raise ScenarioError(f"unknown {what}", file=path, line=_line_of(lines, section, key),
+                                    column=f"{section}.{key}", value=name,
+                                    expected="one of " + ", ".join(choices) + suggest(name, choices))
+
+
 def _particle_modes(given: dict, defaults: dict) -> dict:
     """Particle size distributions from a scenario table, over the defaults.
 
@@ -284,6 +308,7 @@ def validate(raw: dict, path=None, text: str = "") -> Scenario:
                                         line=_line_of(lines, "dry.fixed_velocity", sp),
                                         column=f"dry.fixed_velocity.{sp}", value=v,
                                         expected="a deposition velocity >= 0 in cm/s")
+        _check_names(section, given, path, lines)
         objects[section] = _check_option_section(section, cls, given, path, lines)
     site_over = raw.get("sites", {})
     for sid, table in site_over.items():
