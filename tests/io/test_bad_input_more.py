@@ -377,3 +377,12 @@ def test_netcdf_not_netcdf(tmp_path):
         read_met(p, cat)
     assert re.match(rf"{re.escape(str(p))}: cannot open NetCDF \(.+\), expected a NetCDF file$",
                     str(exc.value)), str(exc.value)
+
+
+def test_netcdf_single_level_is_dropped_with_a_note(tmp_path):
+    """A variable on (site, time, height) with one height is that variable, noted."""
+    p, cat = _nc(tmp_path, lambda ds: ds.assign(
+        wind_speed=ds["wind_speed"].expand_dims(height=[10.0], axis=2)))
+    met, led = read_met(p, cat)
+    assert met["wind_speed"].dims == ("site", "time")
+    assert "met.nc: single-level dimension dropped from wind_speed (height)" in led.notes

@@ -199,6 +199,13 @@ def _netcdf_body(raw, path, catalogue):
         if req and name not in raw:
             raise InputError("missing required variable", file=path, column=name,
                              expected=f"a variable named {name!r}" + suggest(name, list(raw.data_vars)))
+    squeezed = []
+    for name in MET_VARIABLES:
+        if name in raw:
+            extra = [d for d in raw[name].dims if d not in ("site", "time") and raw.sizes[d] == 1]
+            if extra:     # a single level (height = 10 m): the variable itself
+                raw[name] = raw[name].squeeze(extra, drop=True)
+                squeezed.append(f"{name} ({', '.join(map(str, extra))})")
     for name in MET_VARIABLES:
         if name in raw and set(raw[name].dims) != {"site", "time"}:
             raise InputError("variable on other dimensions", file=path, column=name,
@@ -264,5 +271,9 @@ def _netcdf_body(raw, path, catalogue):
                                  expected=f"a unit convertible to {target}") from None
         raw_units[name] = unit
     lines = np.arange(n_s * n_t) + 1
-    return _assemble(values, sites, t, lines, path, catalogue, raw_units,
-                     empty_reason="all variables missing (NaN) in the record")
+    ds, ledger = _assemble(values, sites, t, lines, path, catalogue, raw_units,
+                           empty_reason="all variables missing (NaN) in the record")
+    if squeezed:
+        ledger.notes.append(f"{path.name}: single-level dimension dropped from "
+                            + ", ".join(squeezed))
+    return ds, ledger
