@@ -51,3 +51,124 @@ def test_option_tables_are_current(tmp_path, monkeypatch):
     text = (docs / "scenario.md").read_text()
     for name, cls in option_sections().items():
         assert mot.table(name, cls) in text, f"[{name}] table out of date"
+
+
+# ----------------------------------------------------------------- bad scenarios
+from workbench.errors import InputError, ScenarioError  # noqa: E402
+
+_TINY = Path(__file__).resolve().parent
+
+
+def _scenario(tmp_path, body, encoding="utf-8", prefix=b""):
+    import sys
+    sys.path.insert(0, str(_TINY))
+    from tiny_inputs import SITES
+    (tmp_path / "s.toml").write_text(SITES)
+    p = tmp_path / "sc.toml"
+    p.write_bytes(prefix + ('[inputs]\nsites = "s.toml"\n' + body).encode(encoding))
+    return p
+
+
+BAD_SCENARIOS = {
+    "misspelt_site_id": ("[sites.alpah]\ncanopy_height_m = 0.2\n",
+                         "line 3, column 'sites.alpah': unknown site id: got 'alpah', expected a "
+                         "site of s.toml: alpha, beta (did you mean 'alpha'?)"),
+    "unknown_override_key": ("[sites.alpha]\ncanopy_hieght_m = 0.2\n",
+                             "line 4, column 'sites.alpha.canopy_hieght_m': unknown key, expected "
+                             "one of canopy_height_m"),
+    "number_as_text": ("[sites.alpha]\ncanopy_height_m = \"0.2 m\"\n",
+                       "line 4, column 'sites.alpha.canopy_height_m': wrong type: got '0.2 m', "
+                       "expected a int or float"),
+    "override_roughness_zero": ("[sites.beta]\nroughness_length_m = 0.0\n",
+                                "line 4, column 'sites.beta.roughness_length_m': roughness length "
+                                "not positive: got '0.0', expected z0 > 0 m"),
+    "override_canopy_above_mast": ("[sites.alpha]\ncanopy_height_m = 16.0\n",
+                                   "line 4, column 'sites.alpha.canopy_height_m': anemometer at or "
+                                   "below the displacement height (with wind_height_m = 10.0 from "
+                                   "s.toml): got '16.0', expected wind_height_m 10 m above the "
+                                   "displacement height d = 10.7 m"),
+    "override_slope_95": ("[sites.alpha]\nterrain_slope_deg = 95\n",
+                          "line 4, column 'sites.alpha.terrain_slope_deg': terrain slope outside "
+                          "0-90 degrees: got '95'"),
+    "override_unknown_land_use": ("[sites.alpha]\nmet_land_use = \"lawn\"\n",
+                                  "line 4, column 'sites.alpha.met_land_use': unknown land-use "
+                                  "class: got 'lawn'"),
+    "period_end_before_start": ("[period]\nstart = \"2020-06-01\"\nend = \"2020-01-01\"\n",
+                                "line 5, column 'period.end': period end not after its start: got "
+                                "'2020-01-01', expected a time after start = 2020-06-01"),
+    "period_bad_date": ("[period]\nstart = \"2020-13-01\"\n",
+                        "line 4, column 'period.start': not a date: got '2020-13-01', expected "
+                        "an ISO 8601 date"),
+    "period_day_first": ("[period]\nend = \"31/12/2020\"\n",
+                         "line 4, column 'period.end': not a date: got '31/12/2020'"),
+    "unknown_gas_in_dry_gases": ("[dry]\ngases = [\"SO2\", \"H2S\"]\n",
+                                 "line 4, column 'dry.gases': unknown gas: got 'H2S', expected "
+                                 "one of SO2, HNO3"),
+    "unknown_roughness_class": ("[dry]\nroughness = {grassland = [0.1, 0.05]}\n",
+                                "line 4, column 'dry.roughness': unknown land-use class: got "
+                                "'grassland', expected one of conifer_forest"),
+    "ion_for_air_species": ("[budget]\npreferred_method = {NH4 = \"passive\"}\n",
+                            "line 4, column 'budget.preferred_method': unknown air species: got "
+                            "'NH4', expected one of SO2"),
+    "unknown_gas": ("[dry.fixed_velocity]\nSO3 = 0.5\n",
+                    "line 4, column 'dry.fixed_velocity.SO3': unknown species, expected one of "
+                    "SO2"),
+}
+
+
+@pytest.mark.parametrize("case", list(BAD_SCENARIOS), ids=list(BAD_SCENARIOS))
+def test_bad_scenario(tmp_path, case):
+    body, fragment = BAD_SCENARIOS[case]
+    p = _scenario(tmp_path, body)
+    with pytest.raises(ScenarioError) as exc:
+        load_scenario(p)
+    msg = str(exc.value)
+    assert msg.startswith(f"{p}, "), msg
+    assert fragment in msg, msg
+
+
+def test_scenario_latin1(tmp_path):
+    p = _scenario(tmp_path, "# Auswertung f\u00fcr 2020\n", encoding="latin-1")
+    with pytest.raises(ScenarioError) as exc:
+        load_scenario(p)
+    msg = str(exc.value)
+    assert msg.startswith(f"{p}, line 3: not UTF-8 text (byte 0xfc"), msg
+    assert "got '# Auswertung f\u00fcr 2020'" in msg and "save as UTF-8" in msg
+
+
+def test_scenario_with_byte_order_mark(tmp_path):
+    p = _scenario(tmp_path, "[period]\nresolution = \"month\"\n", prefix=b"\xef\xbb\xbf")
+    assert load_scenario(p).data["period"]["resolution"] == "month"
+
+
+def test_scenario_deeply_nested(tmp_path):
+    p = _scenario(tmp_path, "[sites.alpha]\nlai = " + "[" * 3000 + "]" * 3000 + "\n")
+    with pytest.raises(ScenarioError) as exc:
+        load_scenario(p)
+    assert str(exc.value) == f"{p}: TOML nested too deeply to read, expected tables and arrays " \
+        "nested a few levels at most"
+
+
+def test_override_lai_extremes_become_monthly_lai(tmp_path):
+    """lai_min/lai_max overrides are turned into the monthly lai the study applies."""
+    sc = load_scenario(_scenario(tmp_path, "[sites.beta]\nlai_min = 1.0\nlai_max = 3.0\n"))
+    lai = sc.data["sites"]["beta"]["lai"]
+    assert len(lai) == 12 and min(lai) == pytest.approx(1.0) and max(lai) == pytest.approx(3.0)
+    assert "lai_min" not in sc.data["sites"]["beta"]
+
+
+def test_override_hint_reaches_the_notes(tmp_path):
+    """A doubtful (not impossible) override is read, with a hint in the scenario notes."""
+    sc = load_scenario(_scenario(tmp_path, "[sites.beta]\nwind_height_m = 18.0\n"))
+    assert any("scenario [sites.beta]: the anemometer (18 m) is below the canopy top" in n
+               for n in sc.notes), sc.notes
+
+
+def test_catalogue_error_is_located_in_the_catalogue(tmp_path):
+    """A bad value in the catalogue itself is reported there, not in the scenario."""
+    p = _scenario(tmp_path, "[sites.alpha]\ncollector = \"bulk\"\n")
+    (tmp_path / "s.toml").write_text((tmp_path / "s.toml").read_text().replace(
+        "canopy_height_m = 20.0", "canopy_height_m = 0.0"))
+    with pytest.raises(InputError) as exc:
+        load_scenario(p)
+    assert str(exc.value).startswith(f"{tmp_path / 's.toml'}, line 25, column 'canopy_height_m'")

@@ -97,6 +97,8 @@ class Scenario:
     given: dict = field(default_factory=dict)
     options: dict = field(default_factory=dict)
     fixed_velocity: dict = field(default_factory=dict)
+    #: Hints on doubtful override values (added to the ledger notes when read).
+    notes: list = field(default_factory=list)
 
     @property
     def base(self) -> Path:
@@ -200,6 +202,30 @@ def _check_option_section(section, cls, given, path, lines):
                             column=f"{section}.{key}" if key else section) from None
 
 
+def _check_names(section, given: dict, path, lines):
+    """Species and land-use names inside option values (``[dry] gases``,
+    ``[dry] roughness``, ``[budget] preferred_method``...): an unknown name is an
+    error with the nearest valid one, not an option silently without effect."""
+    from . import species as _species
+    from .landuse import LAND_USE
+    air = list(_species.AIR_GASES + _species.AIR_PARTICLES)
+    rules = {("dry", "gases"): (list(_species.AIR_GASES), "values", "gas"),
+             ("dry", "particles"): (list(_species.AIR_PARTICLES), "values", "particle species"),
+             ("dry", "roughness"): (list(LAND_USE), "keys", "land-use class"),
+             ("budget", "preferred_method"): (air, "keys", "air species"),
+             ("budget", "diurnal_profile"): (air, "keys", "air species")}
+    for (sec, key), (choices, where, what) in rules.items():
+        if sec != section or key not in given:
+            continue
+        value = given[key]
+        names = list(value) if isinstance(value, (list, dict)) else []
+        for name in names:
+            if not isinstance(name, str) or name not in choices:
+                raise ScenarioError(f"unknown {what}", file=path, line=_line_of(lines, section, key),
+                                    column=f"{section}.{key}", value=name,
+                                    expected="one of " + ", ".join(choices) + suggest(name, choices))
+
+
 def _particle_modes(given: dict, defaults: dict) -> dict:
     """Particle size distributions from a scenario table, over the defaults.
 
@@ -284,6 +310,7 @@ def validate(raw: dict, path=None, text: str = "") -> Scenario:
                                         line=_line_of(lines, "dry.fixed_velocity", sp),
                                         column=f"dry.fixed_velocity.{sp}", value=v,
                                         expected="a deposition velocity >= 0 in cm/s")
+        _check_names(section, given, path, lines)
         objects[section] = _check_option_section(section, cls, given, path, lines)
     site_over = raw.get("sites", {})
     for sid, table in site_over.items():
@@ -308,7 +335,84 @@ def validate(raw: dict, path=None, text: str = "") -> Scenario:
                                 line=_line_of(lines, "inputs", role), column=f"inputs.{role}",
                                 value=sc.data["inputs"][role], expected="a path relative to the "
                                 "scenario file, or absolute")
+    _check_period(data["period"], path, lines)
+    sc.notes = _check_site_overrides(sc, path, lines)
     return sc
+
+
+def _check_period(period: dict, path, lines):
+    """Start and end of the budget: dates numpy reads the way the study will, end after
+    start."""
+    import warnings
+
+    import numpy as np
+    times = {}
+    for key in ("start", "end"):
+        v = period.get(key)
+        if v is None:
+            continue
+        try:
+            with warnings.catch_warnings():
+                warnings.simplefilter("error")
+                t = np.datetime64(v, "ns")
+            if np.isnat(t):
+                raise ValueError(v)
+        except (ValueError, TypeError, Warning):
+            raise ScenarioError("not a date", file=path, line=_line_of(lines, "period", key),
+                                column=f"period.{key}", value=v,
+                                expected="an ISO 8601 date or time in UTC without offset, "
+                                "e.g. 2020-01-01 or 2020-01-01T00:00") from None
+        times[key] = t
+    if len(times) == 2 and not times["end"] > times["start"]:
+        raise ScenarioError("period end not after its start", file=path,
+                            line=_line_of(lines, "period", "end"), column="period.end",
+                            value=period["end"], expected=f"a time after start = {period['start']}")
+
+
+#: Override keys that enter the wind-profile geometry checks.
+_GEOMETRY_KEYS = ("canopy_height_m", "displacement_height_m", "roughness_length_m",
+                  "wind_height_m", "sampler_height_m", "met_land_use")
+
+
+def _check_site_overrides(sc: "Scenario", path, lines) -> list:
+    """Check each ``[sites.<id>]`` table against the catalogue: the id exists, the keys
+    and types are right, and the site with its overrides passes the catalogue checks
+    (:func:`workbench.io.sites.check_site`).  ``lai_min``/``lai_max`` become the
+    monthly ``lai`` they stand for.  Returns the hints on doubtful values."""
+    from .errors import InputError
+    from .io.sites import check_site, read_sites, site_dict
+    over = sc.data.get("sites") or {}
+    notes = []
+    if not over or sc.input_path("sites") is None:
+        return notes
+    cat = read_sites(sc.input_path("sites"))
+    for sid, table in over.items():
+        if sid not in cat:
+            raise ScenarioError("unknown site id", file=path, line=_line_of(lines, f"sites.{sid}"),
+                                column=f"sites.{sid}", value=sid, expected="a site of "
+                                f"{cat.path.name}: " + ", ".join(cat.ids) + suggest(sid, cat.ids))
+        base = site_dict(cat[sid])
+        if "lai_min" in table or "lai_max" in table:
+            base.pop("lai", None)
+        merged = {**base, **table}
+
+        def err(problem, key, value=None, expected=None, sid=sid, table=table):
+            if key in table:
+                return ScenarioError(problem, file=path, line=_line_of(lines, f"sites.{sid}", key),
+                                     column=f"sites.{sid}.{key}", value=value, expected=expected)
+            moved = [g for g in _GEOMETRY_KEYS if g in table]
+            if moved:   # the catalogue's value clashes with an overridden one: blame the override
+                g = moved[0]
+                return ScenarioError(f"{problem} (with {key} = {value} from {cat.path.name})",
+                                     file=path, line=_line_of(lines, f"sites.{sid}", g),
+                                     column=f"sites.{sid}.{g}", value=table[g], expected=expected)
+            return InputError(problem + f" (with the overrides of [sites.{sid}] in {path})",
+                              file=cat.path, column=key, value=value, expected=expected)
+        site = check_site(merged, err, notes, f"scenario [sites.{sid}]")
+        if "lai_min" in table or "lai_max" in table:
+            table.pop("lai_min", None), table.pop("lai_max", None)
+            table["lai"] = list(site.lai)
+    return notes
 
 
 def load_scenario(path) -> Scenario:
@@ -333,9 +437,11 @@ def load_scenario_inputs(scenario: Scenario, progress=None):
     """Read the inputs named by a scenario (see :func:`workbench.io.load_inputs`)."""
     from .io import load_inputs
     paths = scenario.input_paths()
-    return load_inputs(paths["sites"], paths.get("precipitation"), paths.get("air"),
-                       paths.get("met"), reference_state=scenario.data["air"]["reference_state"],
-                       progress=progress, flag_map=paths.get("flag_map"))
+    inputs = load_inputs(paths["sites"], paths.get("precipitation"), paths.get("air"),
+                         paths.get("met"), reference_state=scenario.data["air"]["reference_state"],
+                         progress=progress, flag_map=paths.get("flag_map"))
+    inputs.ledger.notes.extend(scenario.notes)
+    return inputs
 
 
 def _plain(value):

@@ -11,10 +11,17 @@ from .table import RawTable
 def check_sites(tab: RawTable, catalogue) -> np.ndarray:
     """The ``site`` column as an array, every value checked against the catalogue."""
     sites = tab.text("site")
-    known = np.isin(sites, np.array(catalogue.ids, dtype=object))
+    known = pd.Series(sites).isin(catalogue.ids).to_numpy()      # hashed: linear in rows
     if not known.all():
         i = int(np.flatnonzero(~known)[0])
-        raise tab.error("site not in the catalogue", row=i, column="site", value=sites[i],
+        hint = ""
+        if sites[i].strip().lower() == "site":
+            hint = " (a repeated header line? keep one header at the top)"
+        elif sites[i] == "":
+            hint = " (an empty site cell)"
+        elif sites[i].strip().lower().startswith(("total", "sum", "mean", "average")):
+            hint = " (a totals or summary row from a spreadsheet? remove it)"
+        raise tab.error("site not in the catalogue" + hint, row=i, column="site", value=sites[i],
                         expected="one of " + ", ".join(catalogue.ids) + suggest(sites[i], catalogue.ids))
     return sites
 
@@ -70,3 +77,65 @@ def unit_error(tab: RawTable, name: str, exc: Exception, expected: str) -> Input
     return InputError(f"unknown or dimensionally wrong unit ({exc})", file=tab.path,
                       line=tab.header_line, column=tab.raw_headers[name],
                       value=tab.headers[name].unit, expected=expected)
+
+
+def _first_difference(tab: RawTable, columns, i: int, j: int):
+    """The first column whose cells differ between data rows i and j (numbers compared
+    as numbers, so 1.5 and 1.50 are equal), or None."""
+    for c in columns:
+        a, b = tab.frame[c].iloc[i], tab.frame[c].iloc[j]
+        if a == b:
+            continue
+        try:
+            if float(a) == float(b):
+                continue
+        except ValueError:
+            pass
+        return c
+    return None
+
+
+def duplicate_rows(tab: RawTable, sites, samplers, start, end, what="sample"):
+    """Rows uploaded twice: the same site, sampler and period (UTC) on two lines.
+
+    Rows of different, named samplers are collocated and left alone; a blank
+    ``sampler_id`` matches any sampler.  An exact repeat (every other cell holds the
+    same value) is dropped; a repeat with other values (a corrected re-export uploaded
+    beside the original) is an error naming both lines.
+
+    Returns
+    -------
+    drop : ndarray of bool
+        Exact repeats, not used.
+    reasons : ndarray of str
+        Their ledger reason ("" for the others).
+    """
+    n = len(sites)
+    drop = np.zeros(n, bool)
+    reasons = np.full(n, "", dtype=object)
+    df = pd.DataFrame({"site": sites, "start": start, "end": end})
+    dup = df.duplicated(keep=False).to_numpy()
+    if not dup.any():
+        return drop, reasons
+    values = [c for c in tab.frame.columns if c not in ("site", "start", "end", "sampler_id")]
+    # only the few repeated rows are visited, one group of repeats at a time
+    for _, g in df.iloc[np.flatnonzero(dup)].groupby(["site", "start", "end"], sort=False):
+        rows = g.index.to_numpy()
+        for k in range(1, len(rows)):
+            i = int(rows[k])
+            for j in (int(r) for r in rows[:k]):
+                if drop[j] or (samplers[i] != samplers[j] and samplers[i] != "" and samplers[j] != ""):
+                    continue
+                line_j = int(tab.lines[j])
+                col = _first_difference(tab, values, i, j)
+                if col is None:
+                    drop[i] = True
+                    reasons[i] = f"exact repeat of line {line_j} (dropped)"
+                    break
+                raise tab.error(f"duplicate upload: same site, sampler and {what} period as "
+                                f"line {line_j}, with other values", row=i, column=col,
+                                value=tab.frame[col].iloc[i],
+                                expected=f"one row per site, sampler and period (line {line_j} "
+                                f"has {tab.frame[col].iloc[j]!r}); keep the corrected row only, "
+                                "or give collocated samplers their own sampler_id")
+    return drop, reasons

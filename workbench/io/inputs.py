@@ -48,7 +48,8 @@ class Inputs:
         import dataclasses as _dc
         from .sites import SiteCatalogue
         keep = list(sites) if sites is not None else self.catalogue.ids
-        cat = SiteCatalogue([self.catalogue[s] for s in keep], self.catalogue.path)
+        cat = SiteCatalogue([self.catalogue[s] for s in keep], self.catalogue.path,
+                            self.catalogue.notes)
         t0 = np.datetime64(start, "ns") if start is not None else None
         t1 = np.datetime64(end, "ns") if end is not None else None
 
@@ -138,6 +139,7 @@ def load_inputs(sites, precipitation=None, air=None, met=None, reference_state=N
     say("site catalogue")
     cat = read_sites(sites)
     inp = Inputs(cat, paths={"sites": Path(sites)})
+    inp.ledger.notes.extend(cat.notes)
     if precipitation is not None:
         say("precipitation samples")
         inp.precipitation, led = read_precipitation(precipitation, cat, flag_map=flag_map)

@@ -10,12 +10,13 @@ from __future__ import annotations
 from pathlib import Path
 
 import numpy as np
+import pandas as pd
 import xarray as xr
 
-from ..errors import InputError
+from ..errors import InputError, suggest
 from ..units import convert_plain, parse_unit, ureg
 from . import metchecks
-from .common import check_sites, unit_error
+from .common import check_sites, join_reasons, unit_error
 from .ledger import Ledger
 from .table import RawTable
 
@@ -85,43 +86,74 @@ def read_met(path, catalogue):
     t = tab.times("time", off)
     if label == "start":
         t = t + HOUR
-    off_hour = (t - t.astype("datetime64[h]").astype("datetime64[ns]")) != np.timedelta64(0, "ns")
-    if off_hour.any():
-        i = int(np.flatnonzero(off_hour)[0])
-        raise tab.error("timestamp not on the hour", row=i, column="time",
-                        value=tab.frame["time"].iloc[i], expected="hourly timestamps (minutes 00)")
-    # duplicates per site
-    key = np.char.add(sites.astype(str), t.astype("datetime64[h]").astype(str))
-    _, first, counts = np.unique(key, return_index=True, return_counts=True)
-    if (counts > 1).any():
-        dup_key = np.flatnonzero(counts > 1)[0]
-        rows = np.flatnonzero(key == key[first[dup_key]])
-        raise tab.error("duplicate hourly timestamp", row=int(rows[1]), column="time",
-                        value=tab.frame["time"].iloc[rows[1]],
-                        expected=f"one row per site and hour (also on line {int(tab.lines[rows[0]])})")
+
+    def where(i, problem, expected):
+        return tab.error(problem, row=i, column="time", value=tab.frame["time"].iloc[i],
+                         expected=expected)
+    check_hours(sites, t, where, lambda i: f"line {int(tab.lines[i])}")
     values, raw_units = {}, {}
     for name, (target, req, _) in MET_VARIABLES.items():
         if tab.has(name):
             values[name], raw_units[name] = _convert(tab, name, target)
-    ds, ledger = _assemble(values, sites, t, tab.lines, tab.path, catalogue, raw_units)
+    ds, ledger = _assemble(values, sites, t, tab.lines, tab.path, catalogue, raw_units,
+                           empty_reason="no values in the row")
     unknown = tab.unknown_columns(set(MET_VARIABLES) | {"site", "time"})
     if unknown:
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
     return ds, ledger
 
 
-def _assemble(values, sites, t, lines, path, catalogue, raw_units):
-    """Checks, ledger and the (site, time) grid, shared by the CSV and NetCDF paths."""
+def check_hours(sites, t, where, name_row):
+    """Raise for a time off the whole hour or a second row for one site and hour.
+
+    Parameters
+    ----------
+    sites : ndarray of str
+    t : ndarray of datetime64[ns]
+        End of each row's hour (UTC).
+    where : callable
+        ``where(i, problem, expected)`` -> the located InputError of row i.
+    name_row : callable
+        ``name_row(i)`` -> how row i is named in a message ("line 7", "time index 3").
+    """
+    off_hour = (t - t.astype("datetime64[h]").astype("datetime64[ns]")) != np.timedelta64(0, "ns")
+    if off_hour.any():
+        raise where(int(np.flatnonzero(off_hour)[0]), "timestamp not on the hour",
+                    "hourly timestamps (minutes 00)")
+    dup = pd.DataFrame({"s": sites, "t": t}).duplicated().to_numpy()
+    if dup.any():
+        i = int(np.flatnonzero(dup)[0])
+        first = int(np.flatnonzero((sites == sites[i]) & (t == t[i]))[0])
+        raise where(i, "duplicate hourly timestamp",
+                    f"one row per site and hour (also on {name_row(first)})")
+
+
+def _assemble(values, sites, t, lines, path, catalogue, raw_units, empty_reason):
+    """Checks, ledger and the (site, time) grid, shared by the CSV and NetCDF paths.
+
+    A row (record) without any value is rejected in the ledger with `empty_reason`.
+    """
     n = len(sites)
+    empty = np.ones(n, bool)
+    for v in values.values():
+        empty &= np.isnan(v)
     reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, raw_units)
-    ledger = Ledger.for_rows(path, lines, sites, reasons, np.zeros(n, bool))
-    site_ids = [s for s in catalogue.ids if s in set(sites.tolist())]
-    t0, t1 = t.min(), t.max()
+    reasons = np.where(empty, join_reasons([reasons, np.full(n, empty_reason, object)]), reasons)
+    ledger = Ledger.for_rows(path, lines, sites, reasons, empty)
+    keep = ~empty
+    if not keep.any():
+        raise InputError("no values in any row", file=path,
+                         expected="at least one hour with a value")
+    present_ids, si = np.unique(sites[keep].astype(str), return_inverse=True)
+    site_ids = [s for s in catalogue.ids if s in set(present_ids.tolist())]
+    order = np.array([site_ids.index(s) for s in present_ids.tolist()], int)  # per site, not row
+    si = order[si]
+    tk = t[keep]
+    t0, t1 = tk.min(), tk.max()
     n_t = int((t1 - t0) // HOUR) + 1
     times = t0 + np.arange(n_t) * HOUR
-    s_index = {s: i for i, s in enumerate(site_ids)}
-    si = np.array([s_index[s] for s in sites])
-    ti = ((t - t0) // HOUR).astype(int)
+    ti = ((tk - t0) // HOUR).astype(int)
+    values = {k: v[keep] for k, v in values.items()}
     dvars = {}
     for name, v in values.items():
         grid = np.full((len(site_ids), n_t), np.nan)
@@ -139,41 +171,109 @@ def _assemble(values, sites, t, lines, path, catalogue, raw_units):
 
 
 def _read_met_netcdf(path: Path, catalogue):
+    """The NetCDF path, held to the CSV rules: dims (site, time) only, site ids in the
+    catalogue, whole and unique hours, units converted once, every record in the
+    ledger (its "line" is the record number of the (site, time) grid, 1-based)."""
+    if not path.exists():
+        raise InputError("file not found", file=path, expected="an existing file")
     try:
         raw = xr.open_dataset(path)
+        raw.load()
     except Exception as exc:  # many engines, many error types
-        raise InputError(f"cannot open NetCDF ({exc})", file=path, expected="a NetCDF file") from None
+        first = str(exc).strip().splitlines()[0][:160] if str(exc).strip() else ""
+        hint = (" (reading NetCDF needs the scipy or netCDF4 package)"
+                if "backends" in str(exc) else "")
+        raise InputError(f"cannot open NetCDF ({type(exc).__name__}: {first}){hint}", file=path,
+                         expected="a NetCDF file") from None
+    with raw:
+        return _netcdf_body(raw, path, catalogue)
+
+
+def _netcdf_body(raw, path, catalogue):
     for dim in ("site", "time"):
         if dim not in raw.dims:
             raise InputError("missing dimension", file=path, column=dim,
+                             value=", ".join(map(str, raw.dims)) or "none",
                              expected="dims (site, time)")
     for name, (_, req, _) in MET_VARIABLES.items():
         if req and name not in raw:
             raise InputError("missing required variable", file=path, column=name,
-                             expected=f"a variable named {name!r}")
-    flat = raw.stack(row=("site", "time"))
-    sites = flat["site"].values.astype(str).astype(object)
-    for s in np.unique(sites):
-        if s not in catalogue:
-            raise InputError("site not in the catalogue", file=path, column="site", value=s,
-                             expected="one of " + ", ".join(catalogue.ids))
-    t = flat["time"].values.astype("datetime64[ns]")
+                             expected=f"a variable named {name!r}" + suggest(name, list(raw.data_vars)))
+    squeezed = []
+    for name in MET_VARIABLES:
+        if name in raw:
+            extra = [d for d in raw[name].dims if d not in ("site", "time") and raw.sizes[d] == 1]
+            if extra:     # a single level (height = 10 m): the variable itself
+                raw[name] = raw[name].squeeze(extra, drop=True)
+                squeezed.append(f"{name} ({', '.join(map(str, extra))})")
+    for name in MET_VARIABLES:
+        if name in raw and set(raw[name].dims) != {"site", "time"}:
+            raise InputError("variable on other dimensions", file=path, column=name,
+                             value="(" + ", ".join(map(str, raw[name].dims)) + ")",
+                             expected="dims (site, time) only (select or average the extra "
+                             "dimension before reading)")
+    if "site" not in raw.coords:
+        raise InputError("site dimension without site ids", file=path, column="site",
+                         expected="a 'site' coordinate holding the ids of the catalogue")
+    if not np.issubdtype(raw["time"].dtype, np.datetime64):
+        raise InputError("time not decoded as dates", file=path, column="time",
+                         value=f"{raw['time'].dtype} {raw['time'].attrs.get('units', '(no units)')}",
+                         expected="a CF time coordinate ('hours since 2020-01-01 00:00', "
+                         "standard calendar)")
+    label = str(raw.attrs.get("time_label", "end")).lower()
+    if label not in ("end", "start"):
+        raise InputError("unknown time label", file=path, column="time_label", value=label,
+                         expected="'end' or 'start' (global attribute)")
+    ids = raw["site"].values.astype(str)
+    unknown = ~pd.Series(ids).isin(catalogue.ids).to_numpy()
+    if unknown.any():
+        s = ids[np.flatnonzero(unknown)[0]]
+        raise InputError("site not in the catalogue", file=path, column="site", value=s,
+                         expected="one of " + ", ".join(catalogue.ids) + suggest(s, catalogue.ids))
+    times = raw["time"].values.astype("datetime64[ns]")
+    if label == "start":
+        times = times + HOUR
+    n_s, n_t = len(ids), len(times)
+    # records in (site, time) order; the "line" of a record is its 1-based number
+    sites = np.repeat(ids.astype(object), n_t)
+    t = np.tile(times, n_s)
+
+    def where(i, problem, expected):
+        return InputError(f"{problem} (site {sites[i]!r}, time index {i % n_t})", file=path,
+                          column="time", value=str(t[i])[:19], expected=expected)
+    check_hours(sites, t, where, lambda i: f"time index {i % n_t}")
     values, raw_units = {}, {}
     for name, (target, _, _) in MET_VARIABLES.items():
-        if name in raw:
-            unit = raw[name].attrs.get("units", "1" if target == "1" else None)
-            if unit is None:
-                raise InputError("variable has no units attribute", file=path, column=name,
-                                 expected="a CF 'units' attribute")
+        if name not in raw:
+            continue
+        unit = raw[name].attrs.get("units", "1" if target == "1" else None)
+        if unit is None:
+            raise InputError("variable has no units attribute", file=path, column=name,
+                             expected=f"a CF 'units' attribute convertible to {target}")
+        v = raw[name].transpose("site", "time").values
+        if not np.issubdtype(v.dtype, np.number):
+            raise InputError("variable is not numeric", file=path, column=name,
+                             value=str(v.dtype), expected="numbers")
+        v = v.astype(float).reshape(-1)
+        if name == "cloud_cover" and str(unit).strip().lower() in ("okta", "oktas"):
+            values[name] = v / 8.0
+        else:
             try:
-                values[name] = convert_plain(flat[name].values, unit, target)
+                u, _ = parse_unit(unit)
+                if name == "solar_radiation" and \
+                        u.dimensionality == ureg.parse_units("J/m**2").dimensionality:
+                    values[name] = convert_plain(v, unit, "J/m**2") / 3600.0
+                else:
+                    values[name] = convert_plain(v, unit, target)
             except ValueError as exc:
                 raise InputError(f"unknown or dimensionally wrong unit ({exc})", file=path,
-                                 column=name, value=unit, expected=target) from None
-            raw_units[name] = unit
-    keep = np.zeros(len(t), bool)
-    for v in values.values():
-        keep |= ~np.isnan(v)
-    values = {k: v[keep] for k, v in values.items()}
-    lines = np.flatnonzero(keep) + 1  # record number in the flattened file
-    return _assemble(values, sites[keep], t[keep], lines, path, catalogue, raw_units)
+                                 column=name, value=unit,
+                                 expected=f"a unit convertible to {target}") from None
+        raw_units[name] = unit
+    lines = np.arange(n_s * n_t) + 1
+    ds, ledger = _assemble(values, sites, t, lines, path, catalogue, raw_units,
+                           empty_reason="all variables missing (NaN) in the record")
+    if squeezed:
+        ledger.notes.append(f"{path.name}: single-level dimension dropped from "
+                            + ", ".join(squeezed))
+    return ds, ledger

@@ -15,9 +15,11 @@ import xarray as xr
 from .. import flags as _flags
 from .. import species as _species
 from ..constants import GAS_CONSTANT
-from ..errors import InputError
+from ..errors import InputError, suggest
 from ..units import Q_, convert_plain, to_amount
-from .common import check_intervals, check_overlaps, check_sites, join_reasons, unit_error
+from . import plausible as _plausible
+from .common import (check_intervals, check_overlaps, check_sites, duplicate_rows, join_reasons,
+                     unit_error)
 from .ledger import Ledger
 from .table import RawTable
 
@@ -25,12 +27,27 @@ PRECIP_REQUIRED = ("site", "start", "end", "gauge_depth")
 PRECIP_OPTIONAL = ("sample_depth", "sample_volume", "collector_area", "pH", "conductivity",
                    "sampler_id", "flags")
 AIR_REQUIRED = ("site", "start", "end")
+#: Columns with a unit that are not species even when their names look alike.
+_NOT_SPECIES = ("gauge_depth", "sample_depth", "sample_volume", "collector_area", "ph",
+                "conductivity")
 
 
-def _species_columns(tab: RawTable, allowed):
-    """Map species -> column name, refusing two columns for one species."""
+def _species_columns(tab: RawTable, allowed, what):
+    """Map species -> column name, refusing two columns for one species, a species of
+    the other file kind (``SO4`` in an air file) and a misspelt species (``S02``)."""
     out = {}
+    choices = [f"{sp}{b}" for sp in allowed for b in ("", "_as_S", "_as_N")
+               if not b or _species.get(sp).element == b[-1]]
     for name, h in tab.headers.items():
+        if h.species is not None and h.species not in allowed:
+            raise InputError(f"species not measured in {what} files", file=tab.path,
+                             line=tab.header_line, column=tab.raw_headers[name], value=h.species,
+                             expected="one of " + ", ".join(allowed) + suggest(h.name, choices))
+        if h.species is None and h.unit and suggest(h.name, choices) and \
+                h.name.lower() not in _NOT_SPECIES:
+            raise InputError("unknown species", file=tab.path, line=tab.header_line,
+                             column=tab.raw_headers[name], value=h.name,
+                             expected="one of " + ", ".join(allowed) + suggest(h.name, choices))
         if h.species in allowed:
             if h.species in out:
                 raise InputError("two columns for one species", file=tab.path,
@@ -41,8 +58,13 @@ def _species_columns(tab: RawTable, allowed):
     return out
 
 
-def _concentrations(tab, cols, kinds_allowed, ledger_parts, n):
-    """Parse species columns into amounts, with censoring. Returns dict of arrays."""
+def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None):
+    """Parse species columns into amounts, with censoring. Returns dict of arrays.
+
+    A missing-value code typed as a value (``-999``, ``9999``...) is masked and flagged;
+    with `groups` (air files: one site-and-sampler label per row) the range and
+    unit-slip checks of :mod:`workbench.io.plausible` run too.
+    """
     data = {}
     for sp, name in cols.items():
         h = tab.headers[name]
@@ -56,6 +78,16 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n):
         if kind not in kinds_allowed:
             raise unit_error(tab, name, ValueError(f"a {kind.replace('_', ' ')}"),
                              " or ".join(k.replace("_", " ") for k in kinds_allowed))
+        sentinel = ~cens & _plausible.sentinel_mask(raw)
+        ledger_parts.append(np.where(sentinel, f"{sp} " + tab.frame[name].to_numpy(dtype=object)
+                                     .astype(str) + " looks like a missing-value code (masked)", ""))
+        masked = sentinel
+        if groups is not None:
+            bad, why = _plausible.air_checks(sp, _plausible.as_ugm3(np.where(sentinel, np.nan, amount),
+                                                                     kind, sp), cens, groups)
+            masked = masked | bad
+            ledger_parts.append(why)
+        amount = np.where(masked, np.nan, amount)
         neg = (~cens) & (amount < 0)
         value = np.where(cens | neg, np.nan, amount)
         dl = np.where(cens, amount, np.nan)
@@ -141,8 +173,9 @@ def read_precipitation(path, catalogue, flag_map=None):
         0-14, end before start, overlapping samples, unknown site or flag code, empty file.
     """
     tab, n, sites, start, end, samplers = _interval_table(path, catalogue, PRECIP_REQUIRED)
-    check_overlaps(tab, sites, samplers, start, end)
-    parts = []
+    repeat, repeat_why = duplicate_rows(tab, sites, samplers, start, end, "sample")
+    check_overlaps(tab, sites, samplers, start, end, mask=~repeat)
+    parts = [repeat_why]
 
     def depth(name):
         raw, unit = tab.numbers(name), tab.unit_of(name)
@@ -150,6 +183,11 @@ def read_precipitation(path, catalogue, flag_map=None):
             v = convert_plain(raw, unit, "mm")
         except ValueError as exc:
             raise unit_error(tab, name, exc, "a depth unit such as mm") from None
+        sentinel = _plausible.sentinel_mask(raw)
+        if sentinel.any():
+            parts.append(np.where(sentinel, f"{name.replace('_', ' ')} " + tab.frame[name].to_numpy(
+                dtype=object).astype(str) + " looks like a missing-value code (masked)", ""))
+            v = np.where(sentinel, np.nan, v)
         if (v < 0).any():
             i = int(np.flatnonzero(v < 0)[0])
             raise tab.error("negative depth", row=i, column=name, value=tab.frame[name].iloc[i],
@@ -201,7 +239,7 @@ def read_precipitation(path, catalogue, flag_map=None):
     flag_text = tab.text("flags") if tab.has("flags") else np.full(n, "", object)
     flag_norm, flag_note = _flag_words(tab, flag_text, flag_map)
     parts.append(np.where(flag_norm != "", "flags " + flag_norm.astype(str), ""))
-    ion_cols = _species_columns(tab, _species.PRECIP_IONS)
+    ion_cols = _species_columns(tab, _species.PRECIP_IONS, "precipitation")
     conc = _concentrations(tab, ion_cols, ("amount_density",), parts, n)
     parts.append(np.where(np.isnan(gauge), "gauge depth missing", ""))
     known = set(PRECIP_REQUIRED + PRECIP_OPTIONAL) | set(ion_cols.values())
@@ -213,6 +251,7 @@ def read_precipitation(path, catalogue, flag_map=None):
     reasons = join_reasons(parts)
     reasons = np.where(empty, join_reasons([reasons, np.full(n, "no values in the row", object)]),
                        reasons)
+    empty = empty | repeat
     ledger = Ledger.for_rows(tab.path, tab.lines, sites, reasons, empty)
     if unknown:
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
@@ -288,12 +327,20 @@ def read_air(path, catalogue, reference_state=None):
     ledger : Ledger
     """
     tab, n, sites, start, end, samplers = _interval_table(path, catalogue, AIR_REQUIRED)
-    cols = _species_columns(tab, _species.AIR_GASES + _species.AIR_PARTICLES)
+    cols = _species_columns(tab, _species.AIR_GASES + _species.AIR_PARTICLES, "air")
     if not cols:
         raise InputError("no species columns", file=tab.path, line=tab.header_line,
                          expected="at least one of " + ", ".join(_species.AIR_GASES + _species.AIR_PARTICLES))
-    parts = []
-    conc = _concentrations(tab, cols, ("amount_density", "mixing_ratio"), parts, n)
+    repeat, repeat_why = duplicate_rows(tab, sites, samplers, start, end, "air")
+    for sp, name in cols.items():
+        u = tab.headers[name].unit or ""
+        if re.search(r"/\s*[munµ]?[lL]\b", u):
+            raise InputError("a liquid concentration unit in an air file", file=tab.path,
+                             line=tab.header_line, column=tab.raw_headers[name], value=u,
+                             expected="an air concentration unit such as ug/m3 or ppb")
+    parts = [repeat_why]
+    groups = np.char.add(np.char.add(sites.astype(str), "\x1f"), samplers.astype(str))
+    conc = _concentrations(tab, cols, ("amount_density", "mixing_ratio"), parts, n, groups)
     ref_text = tab.meta.get("reference_state", reference_state)
     needs_ref = any(k == "amount_density" for *_, k in conc.values())
     ref = None
@@ -320,7 +367,7 @@ def read_air(path, catalogue, reference_state=None):
             methods[sp] = method_all
     for sp in cols:
         v, c, _, _ = conc[sp]
-        check_overlaps(tab, sites, samplers, start, end, mask=~np.isnan(v) | c,
+        check_overlaps(tab, sites, samplers, start, end, mask=(~np.isnan(v) | c) & ~repeat,
                        what=f"{sp} period")
     has_val = np.zeros(n, bool)
     for v, c, _, _ in conc.values():
@@ -328,6 +375,7 @@ def read_air(path, catalogue, reference_state=None):
     reasons = join_reasons(parts)
     empty = ~has_val
     reasons = np.where(empty, join_reasons([reasons, np.full(n, "no values in the row", object)]), reasons)
+    empty = empty | repeat
     ledger = Ledger.for_rows(tab.path, tab.lines, sites, reasons, empty)
     known = set(AIR_REQUIRED) | {"sampler_id", "method"} | set(cols.values()) | {
         f"method_{s}" for s in cols} | {f"{s}_method" for s in cols}

@@ -90,11 +90,15 @@ class SiteCatalogue:
     sites : dict
         id -> :class:`Site`, in file order.
     path : Path or None
+    notes : list of str
+        Hints on doubtful values (see :func:`check_site`).
     """
 
-    def __init__(self, sites, path=None):
+    def __init__(self, sites, path=None, notes=None):
         self.sites = {s.id: s for s in sites}
         self.path = Path(path) if path is not None else None
+        #: Doubtful but usable values found when reading (plain-text hints).
+        self.notes = list(notes or [])
 
     def __iter__(self):
         return iter(self.sites.values())
@@ -203,12 +207,14 @@ def read_sites(path) -> SiteCatalogue:
     Returns
     -------
     SiteCatalogue
+        With ``notes`` holding the hints on doubtful values.
 
     Raises
     ------
     InputError
         For invalid TOML, a missing or unknown key, a wrong type, a value out of range,
-        an unknown land-use class or collector, or a duplicate id.
+        an impossible geometry (:func:`check_site`), an unknown land-use class or
+        collector, or a duplicate id.
     """
     path = Path(path)
     data, text = read_toml(path, expected="an existing sites.toml")
@@ -223,87 +229,218 @@ def read_sites(path) -> SiteCatalogue:
     tables = data.get("site")
     if not isinstance(tables, list) or not tables:
         raise InputError("no sites", file=path, expected="one or more [[site]] tables")
-    sites, seen = [], {}
+    sites, seen, notes = [], {}, []
     for k, t in enumerate(tables):
-        def err(problem, key, value=None, expected=None):
+        def err(problem, key, value=None, expected=None, k=k):
             return InputError(problem, file=path, line=_key_line(lines, starts, k, key),
                               column=key, value=value, expected=expected)
-        for key in t:
-            if key not in SITE_KEYS:
-                raise err("unknown key", key, expected="one of the documented site keys"
-                          + suggest(key, SITE_KEYS))
         for key, (typ, req, desc) in SITE_KEYS.items():
             if req and key not in t:
                 raise InputError("missing required key", file=path,
                                  line=(starts[k] + 1) if k < len(starts) else None,
                                  column=key, expected=desc)
-            if key in t:
-                v = t[key]
-                if isinstance(v, bool) or not isinstance(v, typ):
-                    names = typ.__name__ if isinstance(typ, type) else " or ".join(x.__name__ for x in typ)
-                    raise err("wrong type", key, v, f"a {names} ({desc})")
         sid = t["id"]
-        if sid in seen:
+        if isinstance(sid, str) and sid in seen:
             raise err("duplicate site id", "id", sid, f"ids unique (first at site {seen[sid] + 1})")
+        sites.append(check_site(t, err, notes, f"{path.name}, site {sid!r}"))
         seen[sid] = k
-        if not -90 <= t["latitude"] <= 90:
-            raise err("latitude out of range", "latitude", t["latitude"], "-90 to 90 degrees")
-        if not -180 <= t["longitude"] <= 360:
-            raise err("longitude out of range", "longitude", t["longitude"], "-180 to 180 degrees")
-        for key in ("canopy_height_m", "wind_height_m", "sampler_height_m"):
-            if t[key] < 0:
-                raise err("negative height", key, t[key], "a height >= 0 m")
-        for key in ("wind_height_m", "sampler_height_m"):
-            if t[key] == 0:
-                raise err("zero measurement height", key, t[key], "a height > 0 m")
-        if not -14 <= t["utc_offset_h"] <= 14:
-            raise err("UTC offset out of range", "utc_offset_h", t["utc_offset_h"], "-14 to 14 h")
-        for key in ("land_use", "met_land_use"):
-            if key in t and t[key] not in LAND_USE:
-                raise err("unknown land-use class", key, t[key],
-                          "one of " + ", ".join(LAND_USE) + suggest(t[key], LAND_USE))
-        receptors = t.get("receptors", [])
-        for r in receptors:
-            if r not in LAND_USE:
-                raise err("unknown land-use class", "receptors", r,
-                          "one of " + ", ".join(LAND_USE) + suggest(r, LAND_USE))
-        collector = t.get("collector", "wet_only")
-        if collector not in COLLECTORS:
-            raise err("unknown collector", "collector", collector, "'wet_only' or 'bulk'")
-        lai = None
-        if "lai" in t:
-            v = t["lai"]
-            if len(v) != 12 or not all(isinstance(x, (int, float)) and x >= 0 for x in v):
-                raise err("bad leaf-area index list", "lai", v, "12 monthly values >= 0")
-            lai = tuple(float(x) for x in v)
-            if "lai_min" in t or "lai_max" in t:
-                raise err("both lai and lai_min/lai_max given", "lai", expected="one of them")
-        elif "lai_min" in t or "lai_max" in t:
-            if not ("lai_min" in t and "lai_max" in t):
-                raise err("lai_min and lai_max must come together", "lai_min" if "lai_min" in t else "lai_max")
-            if not 0 <= t["lai_min"] <= t["lai_max"]:
-                raise err("lai_min above lai_max", "lai_min", t["lai_min"], "0 <= lai_min <= lai_max")
-            lai = _monthly_lai(float(t["lai_min"]), float(t["lai_max"]), t["latitude"])
-        cl = dict(t.get("critical_loads", {}))
-        for key, v in cl.items():
-            if key not in CRITICAL_LOAD_KEYS:
-                raise err("unknown critical-load key", key, expected="one of "
-                          + ", ".join(CRITICAL_LOAD_KEYS) + suggest(key, CRITICAL_LOAD_KEYS))
-            if isinstance(v, bool) or not isinstance(v, (int, float)) or v < 0:
-                raise err("bad critical load", key, v, "a number >= 0 in eq/ha/yr")
-        for key in ("roughness_length_m", "displacement_height_m", "terrain_slope_deg"):
-            if key in t and t[key] < 0:
-                raise err("negative value", key, t[key], "a value >= 0")
-        sites.append(Site(
-            id=sid, name=t["name"], latitude=float(t["latitude"]),
-            longitude=float(t["longitude"]), elevation_m=float(t["elevation_m"]),
-            land_use=t["land_use"], canopy_height_m=float(t["canopy_height_m"]),
-            wind_height_m=float(t["wind_height_m"]),
-            sampler_height_m=float(t["sampler_height_m"]),
-            utc_offset_h=float(t["utc_offset_h"]), lai=lai,
-            terrain_slope_deg=float(t.get("terrain_slope_deg", 0.0)),
-            roughness_length_m=t.get("roughness_length_m"),
-            displacement_height_m=t.get("displacement_height_m"),
-            met_land_use=t.get("met_land_use"), collector=collector,
-            receptors=tuple(receptors), critical_loads={k2: float(v) for k2, v in cl.items()}))
-    return SiteCatalogue(sites, path)
+    return SiteCatalogue(sites, path, notes)
+
+
+def _type_check(t, err):
+    for key, v in t.items():
+        if key not in SITE_KEYS:
+            raise err("unknown key", key, expected="one of the documented site keys"
+                      + suggest(key, SITE_KEYS))
+        typ, _, desc = SITE_KEYS[key]
+        if isinstance(v, bool) or not isinstance(v, typ):
+            names = typ.__name__ if isinstance(typ, type) else " or ".join(x.__name__ for x in typ)
+            raise err("wrong type", key, v, f"a {names} ({desc})")
+
+
+def check_site(t: dict, err, notes: list, label: str) -> Site:
+    """Validate one site's keys (a ``[[site]]`` table, or one with scenario overrides).
+
+    Parameters
+    ----------
+    t : dict
+        Key -> value as in :data:`SITE_KEYS`; heights [m], angles [degree].
+    err : callable
+        ``err(problem, key, value=None, expected=None)`` -> an InputError located in
+        the file that holds `key`.
+    notes : list
+        Hints on doubtful values are appended here.
+    label : str
+        Names the site in the hints.
+
+    Returns
+    -------
+    Site
+
+    Raises
+    ------
+    InputError
+        From `err`, for the first impossible value (see docs/data_formats.md).
+    """
+    _type_check(t, err)
+    if not -90 <= t["latitude"] <= 90:
+        raise err("latitude out of range", "latitude", t["latitude"], "-90 to 90 degrees")
+    if not -180 <= t["longitude"] <= 360:
+        raise err("longitude out of range", "longitude", t["longitude"], "-180 to 180 degrees")
+    if not ELEVATION_RANGE[0] <= t["elevation_m"] <= ELEVATION_RANGE[1]:
+        raise err("elevation out of range", "elevation_m", t["elevation_m"],
+                  f"{ELEVATION_RANGE[0]:g} to {ELEVATION_RANGE[1]:g} m above sea level "
+                  "(a height in feet?)")
+    for key in ("canopy_height_m", "wind_height_m", "sampler_height_m"):
+        if t[key] < 0:
+            raise err("negative height", key, t[key], "a height >= 0 m")
+    for key in ("wind_height_m", "sampler_height_m"):
+        if t[key] == 0:
+            raise err("zero measurement height", key, t[key], "a height > 0 m")
+    if not -14 <= t["utc_offset_h"] <= 14:
+        raise err("UTC offset out of range", "utc_offset_h", t["utc_offset_h"], "-14 to 14 h")
+    if t["utc_offset_h"] * 4 != round(t["utc_offset_h"] * 4):
+        raise err("UTC offset not a whole quarter hour", "utc_offset_h", t["utc_offset_h"],
+                  "hours in steps of 0.25 (e.g. 1, -3.5, 5.75)")
+    for key in ("land_use", "met_land_use"):
+        if key in t and t[key] not in LAND_USE:
+            raise err("unknown land-use class", key, t[key],
+                      "one of " + ", ".join(LAND_USE) + suggest(t[key], LAND_USE))
+    receptors = t.get("receptors", [])
+    for r in receptors:
+        if not isinstance(r, str) or r not in LAND_USE:
+            raise err("unknown land-use class", "receptors", r,
+                      "one of " + ", ".join(LAND_USE) + suggest(r, LAND_USE))
+    collector = t.get("collector", "wet_only")
+    if collector not in COLLECTORS:
+        raise err("unknown collector", "collector", collector, "'wet_only' or 'bulk'"
+                  + suggest(collector, COLLECTORS))
+    lai = None
+    if "lai" in t:
+        v = t["lai"]
+        if len(v) != 12 or not all(isinstance(x, (int, float)) and not isinstance(x, bool)
+                                   and x >= 0 for x in v):
+            raise err("bad leaf-area index list", "lai", v, "12 monthly values >= 0")
+        lai = tuple(float(x) for x in v)
+        if "lai_min" in t or "lai_max" in t:
+            raise err("both lai and lai_min/lai_max given", "lai", expected="one of them")
+    elif "lai_min" in t or "lai_max" in t:
+        if not ("lai_min" in t and "lai_max" in t):
+            raise err("lai_min and lai_max must come together", "lai_min" if "lai_min" in t else "lai_max")
+        if not 0 <= t["lai_min"] <= t["lai_max"]:
+            raise err("lai_min above lai_max", "lai_min", t["lai_min"], "0 <= lai_min <= lai_max")
+        lai = _monthly_lai(float(t["lai_min"]), float(t["lai_max"]), t["latitude"])
+    cl = dict(t.get("critical_loads", {}))
+    for key, v in cl.items():
+        if key not in CRITICAL_LOAD_KEYS:
+            raise err("unknown critical-load key", key, expected="one of "
+                      + ", ".join(CRITICAL_LOAD_KEYS) + suggest(key, CRITICAL_LOAD_KEYS))
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or v < 0:
+            raise err("bad critical load", key, v, "a number >= 0 in eq/ha/yr")
+    for key in ("displacement_height_m", "terrain_slope_deg"):
+        if key in t and t[key] < 0:
+            raise err("negative value", key, t[key], "a value >= 0")
+    _geometry(t, err, notes, label)
+    return Site(
+        id=t["id"], name=t["name"], latitude=float(t["latitude"]),
+        longitude=float(t["longitude"]), elevation_m=float(t["elevation_m"]),
+        land_use=t["land_use"], canopy_height_m=float(t["canopy_height_m"]),
+        wind_height_m=float(t["wind_height_m"]),
+        sampler_height_m=float(t["sampler_height_m"]),
+        utc_offset_h=float(t["utc_offset_h"]), lai=lai,
+        terrain_slope_deg=float(t.get("terrain_slope_deg", 0.0)),
+        roughness_length_m=t.get("roughness_length_m"),
+        displacement_height_m=t.get("displacement_height_m"),
+        met_land_use=t.get("met_land_use"), collector=collector,
+        receptors=tuple(receptors), critical_loads={k2: float(v) for k2, v in cl.items()})
+
+
+#: Station elevations possible on land [m] (lowest shore about -430 m, highest summit
+#: about 8850 m; from memory, rounded outward).
+ELEVATION_RANGE = (-450.0, 9000.0)
+#: Canopies taller than this are impossible [m] (the tallest measured trees are about
+#: 116 m; from memory).
+MAX_CANOPY_M = 120.0
+#: A mast higher than this is doubtful at a deposition site (a height in feet?) [m]
+#: (common practice).
+TALL_MAST_M = 150.0
+#: A terrain slope steeper than this is doubtful (a percent grade?) [degree]
+#: (common practice).
+STEEP_SLOPE_DEG = 45.0
+VEGETATED = ("conifer_forest", "deciduous_forest", "mixed_forest", "grass", "crops",
+             "moorland", "wetland")
+
+
+def _geometry(t, err, notes, label):
+    """Heights and angles that make the wind profile impossible (errors) or doubtful
+    (hints in `notes`); the mast's z0 and d follow the drydep rules
+    (:func:`workbench.surface.roughness.land_use_roughness`)."""
+    from ..landuse import FOREST_CLASSES
+    from ..surface.roughness import land_use_roughness
+    lu, h = t["land_use"], float(t["canopy_height_m"])
+    z0_given = t.get("roughness_length_m")
+    if z0_given is not None and z0_given <= 0:
+        raise err("roughness length not positive", "roughness_length_m", z0_given,
+                  "z0 > 0 m (or no roughness_length_m: z0 from the land use and canopy height)")
+    slope = t.get("terrain_slope_deg", 0.0)
+    if not 0 <= slope < 90:
+        raise err("terrain slope outside 0-90 degrees", "terrain_slope_deg", slope,
+                  "an angle in degrees from 0 to below 90 (a grade of 100 % is 45 degrees)")
+    if slope > STEEP_SLOPE_DEG:
+        notes.append(f"{label}: terrain_slope_deg {slope:g} is steeper than "
+                     f"{STEEP_SLOPE_DEG:g} degrees: a percent grade written as degrees?")
+    if h > MAX_CANOPY_M:
+        raise err("canopy taller than any tree", "canopy_height_m", h,
+                  f"a height below {MAX_CANOPY_M:g} m (a height in feet or cm?)")
+    if h == 0 and lu in FOREST_CLASSES:
+        raise err("canopy height 0 for a forest", "canopy_height_m", h,
+                  f"the mean tree height in m (default for {lu}: {LAND_USE[lu][1]:g} m)")
+    if h == 0 and lu in VEGETATED:
+        notes.append(f"{label}: canopy_height_m is 0 for the vegetated class {lu!r}: left "
+                     f"blank? (default {LAND_USE[lu][1]:g} m; z0 falls back to a smooth surface)")
+    z_wind = float(t["wind_height_m"])
+    if z_wind > TALL_MAST_M:
+        notes.append(f"{label}: wind_height_m {z_wind:g} is above {TALL_MAST_M:g} m: a height in feet?")
+    mast = t.get("met_land_use") or lu
+    own = mast == lu
+    h_m = h if own else LAND_USE[mast][1]
+    z0_m, d_m = land_use_roughness(
+        mast, h_m, np.nan if not own or z0_given is None else float(z0_given),
+        np.nan if not own or t.get("displacement_height_m") is None
+        else float(t["displacement_height_m"]))
+    z0_m, d_m = float(z0_m), float(d_m)
+    d_key = "displacement_height_m" if own and "displacement_height_m" in t else "wind_height_m"
+    if z_wind <= d_m:
+        raise err("anemometer at or below the displacement height", d_key, t.get(d_key),
+                  f"wind_height_m {z_wind:g} m above the displacement height d = {d_m:.3g} m "
+                  f"of the mast's surface {mast!r} (d/h = 2/3 unless given)")
+    if np.isfinite(z0_m) and z_wind - d_m <= z0_m:
+        raise err("anemometer within the roughness length above d", "wind_height_m", z_wind,
+                  f"wind_height_m - d ({z_wind - d_m:.3g} m) larger than z0 = {z0_m:.3g} m")
+    if z_wind < h_m:
+        notes.append(f"{label}: the anemometer ({z_wind:g} m) is below the canopy top "
+                     f"({h_m:g} m) of the mast's surface {mast!r}: the log wind profile is "
+                     "doubtful there (roughness sublayer)")
+    if float(t["sampler_height_m"]) <= d_m:
+        notes.append(f"{label}: the air sampler inlet ({t['sampler_height_m']:g} m) is at or "
+                     f"below the displacement height ({d_m:.3g} m) of the mast's surface "
+                     f"{mast!r}: an in-canopy concentration?")
+    if t["latitude"] == 0 and t["longitude"] == 0:
+        notes.append(f"{label}: latitude and longitude are both 0: a placeholder?")
+
+
+def site_dict(site: Site) -> dict:
+    """A site's keys as in a ``[[site]]`` table (the inverse of :func:`check_site`)."""
+    out = {"id": site.id, "name": site.name, "latitude": site.latitude,
+           "longitude": site.longitude, "elevation_m": site.elevation_m,
+           "land_use": site.land_use, "canopy_height_m": site.canopy_height_m,
+           "wind_height_m": site.wind_height_m, "sampler_height_m": site.sampler_height_m,
+           "utc_offset_h": site.utc_offset_h, "terrain_slope_deg": site.terrain_slope_deg,
+           "collector": site.collector, "receptors": list(site.receptors),
+           "critical_loads": dict(site.critical_loads)}
+    for key in ("roughness_length_m", "displacement_height_m", "met_land_use"):
+        if getattr(site, key) is not None:
+            out[key] = getattr(site, key)
+    if site.lai is not None:
+        out["lai"] = list(site.lai)
+    return out

@@ -11,6 +11,7 @@ import gzip
 import io
 import re
 import warnings
+import zlib
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -22,6 +23,8 @@ from ..units import Header, parse_header
 
 _OFFSET = re.compile(r"[T ]\d\d.*(?:Z|[+-]\d\d(?::?\d\d)?)$")
 
+#: Timestamps outside [YEARS[0], YEARS[1]) are typing slips in the year (common practice).
+YEARS = (np.datetime64("1900-01-01", "ns"), np.datetime64("2100-01-01", "ns"))
 #: Cell texts read as a missing number.
 MISSING_TEXTS = ("", "NA", "NaN", "nan")
 #: Any blank but the line break (what ``str.strip`` removes, as ``str.isspace``): the
@@ -38,13 +41,27 @@ def _open_text(path: Path) -> str:
         raise InputError("file not found", file=path, expected="an existing file") from None
     except IsADirectoryError:
         raise InputError("is a directory", file=path, expected="a file") from None
-    if path.suffix == ".gz":
-        raw = gzip.decompress(raw)
+    except PermissionError:
+        raise InputError("file cannot be read (permission denied)", file=path,
+                         expected="a readable file") from None
+    if path.suffix == ".gz" or raw[:2] == b"\x1f\x8b":
+        try:
+            raw = gzip.decompress(raw)
+        except (OSError, EOFError, zlib.error) as exc:   # BadGzipFile is an OSError
+            raise InputError(f"not a readable gzip file ({exc or type(exc).__name__})", file=path,
+                             expected="a complete .gz file (gzip -t to test it), or the "
+                             "uncompressed file without .gz") from None
+    if raw[:4] in (b"PK\x03\x04", b"\xd0\xcf\x11\xe0"):
+        raise InputError("a spreadsheet workbook, not a CSV text file", file=path,
+                         expected="the sheet exported as CSV (UTF-8, comma-separated)")
     try:
         return raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
-        raise InputError("file is not UTF-8 text", file=path,
-                         value=f"byte {exc.start}", expected="a UTF-8 CSV file") from None
+        line = raw[:exc.start].count(b"\n") + 1
+        text = raw[raw.rfind(b"\n", 0, exc.start) + 1:].split(b"\n")[0].decode("latin-1").strip()
+        raise InputError(f"file is not UTF-8 text (byte 0x{raw[exc.start]:02x} at byte offset "
+                         f"{exc.start})", file=path, line=line, value=text,
+                         expected="a UTF-8 CSV file (Latin-1 or Windows-1252? save as UTF-8)") from None
 
 
 @dataclass
@@ -97,6 +114,13 @@ class RawTable:
         if not any(ln.strip() for ln in rest):
             raise InputError("empty file", file=path, expected="a header line and data rows")
         body = "\n".join(rest)
+        head = next(ln for ln in rest if ln.strip())
+        if head.count(";") > head.count(",") or head.count("\t") > head.count(","):
+            sep = "semicolon" if head.count(";") >= head.count("\t") else "tab"
+            raise InputError(f"{sep}-separated header (a spreadsheet export in a "
+                             "decimal-comma locale?)", file=path, line=n_meta + 1,
+                             value=head[:60], expected="comma-separated values with a "
+                             "decimal point (export as 'CSV UTF-8, comma-delimited')")
         try:
             with warnings.catch_warnings():
                 warnings.simplefilter("error", pd.errors.ParserWarning)
@@ -104,6 +128,11 @@ class RawTable:
                                  skip_blank_lines=False, skipinitialspace=True,
                                  index_col=False)
         except (pd.errors.ParserError, pd.errors.ParserWarning):
+            odd = [k for k, ln in enumerate(rest) if ln.count('"') % 2]
+            if odd:
+                raise InputError("a quote opened and not closed", file=path,
+                                 line=odd[0] + 1 + n_meta, value=rest[odd[0]][:60],
+                                 expected='quotes in pairs ("...") around a cell') from None
             rows = csv.reader(io.StringIO(body))
             n_head = len(next(rows))
             line = next((k + 2 + n_meta for k, r in enumerate(rows) if r and len(r) != n_head), None)
@@ -128,6 +157,14 @@ class RawTable:
         data = body[body.find("\n") + 1:] if "\n" in body else ""
         if '"' in data or _BLANK.search(data):            # else no cell has any to strip
             df = df.apply(lambda c: c.str.strip())
+        if '"' in data:                                   # a quote left open swallows lines
+            broken = df.apply(lambda c: c.str.contains("\n", regex=False)).to_numpy()
+            if broken.any():
+                r, c = (int(x[0]) for x in np.nonzero(broken))
+                raise InputError("a quote opened and not closed (the cell runs over several "
+                                 "lines)", file=path, line=int(lines[r]), column=raw[df.columns[c]],
+                                 value=df.iat[r, c].split("\n")[0][:40],
+                                 expected='quotes in pairs ("...") around a cell')
         return cls(path, meta, df, lines, headers, raw)
 
     # ------------------------------------------------------------------ helpers
@@ -202,6 +239,11 @@ class RawTable:
                 raise self.error("text in a numeric column", row=i, column=name,
                                  value=s.iloc[i], expected="a number (or empty for missing)"
                                  + (", or '<limit' below detection" if censoring else ""))
+        inf = np.isinf(v)
+        if inf.any():
+            i = int(np.flatnonzero(inf)[0])
+            raise self.error("not a finite number", row=i, column=name, value=s.iloc[i],
+                             expected="a finite number (or empty for missing)")
         if censoring:
             return v, s.str.startswith("<").to_numpy()
         return v
@@ -231,9 +273,19 @@ class RawTable:
 
     def _check_times(self, s, t, name):
         bad = t.isna().to_numpy()
+        tv = t.to_numpy() if not hasattr(t, "dt") or t.dt.tz is None else t.dt.tz_localize(None).to_numpy()
+        odd = ~bad & ((tv < YEARS[0]) | (tv >= YEARS[1]))
+        if odd.any():
+            idx = s.index[np.flatnonzero(odd)[0]]
+            raise self.error("timestamp outside the years 1900-2099 (a typing slip in the "
+                             "year?)", row=int(idx), column=name, value=s.loc[idx],
+                             expected="a timestamp in 1900-2099")
         if bad.any():
             idx = s.index[np.flatnonzero(bad)[0]]
-            raise self.error("not an ISO 8601 timestamp", row=int(idx), column=name,
+            hint = ""
+            if re.fullmatch(r"\d{5}(\.\d*)?", str(s.loc[idx])):
+                hint = " (an Excel date serial number? format the column as a date first)"
+            raise self.error("not an ISO 8601 timestamp" + hint, row=int(idx), column=name,
                              value=s.loc[idx], expected="a timestamp such as 2020-01-07T09:00 "
                              "or 2020-01-07T09:00+01:00")
 

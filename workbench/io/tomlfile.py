@@ -31,12 +31,31 @@ def read_toml(path, error=InputError, missing="file not found", expected="an exi
     """
     path = Path(path)
     try:
-        text = path.read_text(encoding="utf-8")
+        raw = path.read_bytes()
     except FileNotFoundError:
         raise error(missing, file=path, expected=expected) from None
+    except IsADirectoryError:
+        raise error("is a directory", file=path, expected=expected) from None
+    except PermissionError:
+        raise error("file cannot be read (permission denied)", file=path,
+                    expected="a readable file") from None
+    try:
+        text = raw.decode("utf-8-sig")          # a byte-order mark is simply accepted
+    except UnicodeDecodeError as exc:
+        line = raw[:exc.start].count(b"\n") + 1
+        col = exc.start - (raw.rfind(b"\n", 0, exc.start) + 1) + 1
+        raise error(f"not UTF-8 text (byte 0x{raw[exc.start]:02x} at byte offset {exc.start}, "
+                    f"character {col} of the line)", file=path, line=line,
+                    value=raw[raw.rfind(b"\n", 0, exc.start) + 1:].split(b"\n")[0]
+                    .decode("latin-1").strip(),
+                    expected="a file saved as UTF-8 (it looks like Latin-1 or Windows-1252: "
+                    "save as UTF-8)") from None
     try:
         return tomllib.loads(text), text
     except tomllib.TOMLDecodeError as exc:
         m = re.search(r"line (\d+)", str(exc))
         raise error(f"invalid TOML ({exc})", file=path,
                     line=int(m.group(1)) if m else None) from None
+    except RecursionError:
+        raise error("TOML nested too deeply to read", file=path,
+                    expected="tables and arrays nested a few levels at most") from None

@@ -1,0 +1,154 @@
+"""Plausibility flags: values that cannot be right are masked, every row stays in the
+ledger with its reason, and repeats of a row are dropped or refused."""
+import numpy as np
+import pytest
+
+from workbench.io import read_air, read_met, read_precipitation, read_sites
+from workbench.io.plausible import AIR_RANGES, as_ugm3, air_checks, sentinel_mask
+
+from tiny_inputs import AIR, PRECIP, SITES, met_text
+
+
+@pytest.fixture
+def cat(tmp_path):
+    (tmp_path / "s.toml").write_text(SITES)
+    return read_sites(tmp_path / "s.toml")
+
+
+def _ledger_reasons(led):
+    return dict(zip(led.table["line"], zip(led.table["status"], led.table["reason"])))
+
+
+def test_sentinel_in_precipitation_is_masked_and_flagged(tmp_path, cat):
+    """NH4 = 9999 (a missing-value code) is not a concentration: masked, row flagged."""
+    p = tmp_path / "p.csv"
+    p.write_text(PRECIP.replace(",25.0,", ",9999,", 1).replace("+00:00,,20.0,", "+00:00,,-999,"))
+    ds, led = read_precipitation(p, cat)
+    assert np.isnan(ds["NH4"].values[0]) and not ds["NH4_censored"].values[0]
+    r = _ledger_reasons(led)
+    assert r[2] == ("flagged", "NH4 9999 looks like a missing-value code (masked)")
+    assert r[5][0] == "flagged"
+    assert "gauge depth -999 looks like a missing-value code (masked)" in r[5][1]
+    assert np.isnan(ds["gauge_depth"].values[-1])
+    assert led.check_balanced()
+
+
+def test_sentinel_in_air(tmp_path, cat):
+    p = tmp_path / "a.csv"
+    p.write_text(AIR.replace(",1.5,1.2,", ",-9999,1.2,"))
+    ds, led = read_air(p, cat)
+    assert np.isnan(ds["NH3"].values[0])
+    assert _ledger_reasons(led)[3] == ("flagged", "NH3 -9999 looks like a missing-value code (masked)")
+
+
+def test_whole_sampler_in_mg_per_m3(tmp_path, cat):
+    """SO2 of one filter pack typed in mg/m3 under a ug/m3 header: every value of that
+    sampler masked with the unit-slip hint; the other sampler is untouched."""
+    p = tmp_path / "a.csv"
+    p.write_text(AIR.replace("fp1,2.0,", "fp1,2100,").replace("fp1,<0.1,", "fp1,1800,"))
+    ds, led = read_air(p, cat)
+    assert np.isnan(ds["SO2"].values[:2]).all() and ds["SO2"].values[2] > 0
+    r = _ledger_reasons(led)
+    hint = "SO2 values look 1000x too high at this sampler: mg/m3 read as ug/m3? (masked)"
+    assert r[3] == ("flagged", hint) and r[4] == ("flagged", hint)
+    assert r[5] == ("accepted", "")
+
+
+def test_single_value_above_range(tmp_path, cat):
+    p = tmp_path / "a.csv"
+    p.write_text(AIR.replace("fp1,2.0,0.1,", "fp1,2.0,75,"))
+    ds, led = read_air(p, cat)
+    assert np.isnan(ds["HNO3"].values[0])
+    assert _ledger_reasons(led)[3] == ("flagged", "HNO3 above the plausible 50 ug/m3 (masked)")
+
+
+def test_negative_beyond_blank_tolerance(tmp_path, cat):
+    """-0.3 ug/m3 pSO4 is a blank-subtraction result (censored); -40 is not (masked)."""
+    p = tmp_path / "a.csv"
+    p.write_text(AIR.replace("1.5,1.2,5.0", "1.5,-0.3,5.0").replace("1.0,1.0,4.0", "1.0,-40,4.0"))
+    ds, led = read_air(p, cat)
+    assert ds["pSO4_censored"].values[0] and not ds["pSO4_censored"].values[1]
+    r = _ledger_reasons(led)
+    assert r[3] == ("flagged", "pSO4 negative (censored)")
+    assert "pSO4 negative beyond the blank tolerance -0.5 ug/m3 (masked)" in r[4][1]
+
+
+def test_exact_repeat_dropped_with_ledger_entry(tmp_path, cat):
+    """The same row uploaded twice (1.5 and 1.50 are the same value) is used once."""
+    p = tmp_path / "p.csv"
+    row = PRECIP.splitlines()[1].replace(",1.5,", ",1.50,")
+    p.write_text(PRECIP + row + "\n")
+    ds, led = read_precipitation(p, cat)
+    assert ds.sizes["sample"] == 4
+    assert _ledger_reasons(led)[6] == ("rejected", "exact repeat of line 2 (dropped)")
+    assert led.check_balanced()
+
+
+def test_collocated_samplers_stay(tmp_path, cat):
+    """Two named samplers over one period at one site are collocated: both kept."""
+    p = tmp_path / "a.csv"
+    p.write_text(AIR + "beta,2020-01-07T09:00,2020-01-14T09:00,fp3,3.4,0.3,,2.2,,\n")
+    ds, led = read_air(p, cat)
+    assert sorted(ds["sampler_id"].values[ds["site"].values == "beta"]) == ["fp2", "fp3"]
+    assert (led.table["status"] != "rejected").all()
+
+
+def test_netcdf_all_nan_records_in_ledger(tmp_path, cat):
+    """A NetCDF record with every variable NaN is rejected in the ledger, with a reason."""
+    (tmp_path / "m.csv").write_text(met_text(n_hours=6))
+    met, _ = read_met(tmp_path / "m.csv", cat)
+    nc = met.drop_vars("row_present")
+    for v in nc.data_vars:
+        nc[v][:, 2] = np.nan
+    nc.to_netcdf(tmp_path / "m.nc", engine="scipy")
+    back, led = read_met(tmp_path / "m.nc", cat)
+    assert len(led.table) == 6 and led.check_balanced()
+    r = _ledger_reasons(led)
+    assert r[3] == ("rejected", "all variables missing (NaN) in the record")
+    assert not back["row_present"].values[0, 2] and back["row_present"].values[0, 3]
+
+
+def test_met_csv_row_without_values_rejected(tmp_path, cat):
+    lines = met_text(n_hours=4).splitlines()
+    cells = lines[3].split(",")
+    lines[3] = ",".join(cells[:2] + [""] * (len(cells) - 2))
+    (tmp_path / "m.csv").write_text("\n".join(lines) + "\n")
+    _, led = read_met(tmp_path / "m.csv", cat)
+    assert _ledger_reasons(led)[4] == ("rejected", "no values in the row")
+
+
+def test_sentinel_list():
+    assert sentinel_mask([-999, -999.0, 9999, 99999, -99, -9999.9, 0.999, 999.5, 1]).tolist() == \
+        [True, True, True, True, True, True, False, False, False]
+
+
+def test_ppb_to_ugm3_reference():
+    """1 ppb SO2 at 20 degC and 1013.25 hPa is 2.66 ug/m3: the conversion factor stated
+    for that reference condition in air-quality practice (value from memory); the molar
+    mass is checked against the molmass package (a general reference library)."""
+    from molmass import Formula
+    ug = float(as_ugm3(np.array([1e-9]), "mixing_ratio", "SO2")[0])
+    assert ug == pytest.approx(2.66, abs=0.01)
+    assert ug == pytest.approx(1e-9 * 101325 / (8.314462618 * 293.15) * Formula("SO2").mass * 1e6,
+                               rel=1e-4)
+
+
+def test_every_range_has_a_source():
+    for sp, (hi, tol, src) in AIR_RANGES.items():
+        assert hi > 0 and tol > 0 and len(src) > 10, sp
+
+
+def test_slip_needs_the_whole_sampler():
+    """One high value among normal ones is 'above the plausible', not a unit slip."""
+    v = np.array([2.0, 3.0, 900.0, 2.5])
+    bad, why = air_checks("SO2", v, np.zeros(4, bool), np.array(["a"] * 4))
+    assert bad.tolist() == [False, False, True, False]
+    assert why[2] == "SO2 above the plausible 500 ug/m3 (masked)"
+
+
+def test_docs_carry_the_ranges_table():
+    """docs/data_formats.md shows the ranges the code uses, with their sources."""
+    from pathlib import Path
+    from workbench.io.plausible import ranges_table
+    doc = (Path(__file__).resolve().parents[2] / "docs" / "data_formats.md").read_text()
+    assert ranges_table() in doc

@@ -1,0 +1,132 @@
+"""Plausibility checks of measured concentrations (air and precipitation).
+
+Nothing here refuses a file.  A value that cannot be right is set to missing and its
+row flagged with a hint, so that the ledger says what happened to it:
+
+* a missing-value code typed as a value (-999, 9999, ...): masked;
+* a negative concentration below the blank-subtraction tolerance of its species:
+  masked (a small negative stays censored, as before);
+* an air concentration above the plausible maximum of its species: masked; when more
+  than half of a sampler's values sit above the maximum and a factor 1000 brings them
+  back into range, the hint names the likely unit slip (mg/m3 read as ug/m3).
+
+The thresholds are in :data:`AIR_RANGES`, each with its source.
+"""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from .. import species as _species
+from ..constants import GAS_CONSTANT
+
+#: Numbers that data systems and spreadsheets use for "no value" (common practice in
+#: station and laboratory data exchange; compared with the number as typed).
+SENTINELS = (-9999.99, -9999.9, -9999.0, -999.99, -999.9, -999.0, -99.99, -99.9, -99.0,
+             -8888.0, -888.0, 999.9, 999.99, 9999.0, 9999.9, 99999.0, 999999.0)
+
+#: Air concentrations of a sampling-period mean, expressed as the species itself
+#: [ug m-3]: (largest plausible value, tolerance of a negative value, source).  A value
+#: above the maximum is masked; a negative value down to minus the tolerance is a
+#: blank-subtraction result and stays censored, a larger one is masked.
+AIR_RANGES = {
+    "SO2": (500.0, 2.0, "above the EU 1-hour limit value of 350 ug/m3 (Directive "
+            "2008/50/EC, Annex XI; from memory); periods at deposition sites are far lower"),
+    "NO2": (400.0, 2.0, "the EU alert threshold of 400 ug/m3 (Directive 2008/50/EC, "
+            "Annex XII; from memory) as a bound for a period mean"),
+    "O3": (500.0, 5.0, "about twice the EU alert threshold of 240 ug/m3 (Directive "
+           "2008/50/EC, Annex XII; from memory)"),
+    "HNO3": (50.0, 0.5, "common practice: ambient nitric acid is a few ug/m3 at most"),
+    "NH3": (1000.0, 2.0, "common practice: weekly means beside livestock housing reach "
+            "some hundreds of ug/m3"),
+    "pSO4": (100.0, 0.5, "common practice: above the EU daily PM10 limit of 50 ug/m3 "
+             "(Directive 2008/50/EC, Annex XI; from memory) for one component"),
+    "pNO3": (100.0, 0.5, "common practice, as pSO4"),
+    "pNH4": (100.0, 0.5, "common practice, as pSO4"),
+    "pNa": (100.0, 0.5, "common practice: sea-salt sodium on a coast stays below tens of ug/m3"),
+    "pCl": (150.0, 0.5, "common practice, as pNa (chloride/sodium mass ratio 1.8 in sea salt)"),
+    "pCa": (50.0, 0.5, "common practice: soil dust calcium"),
+}
+
+#: Factor a mg/m3 value read as ug/m3 is too high by [-].
+UNIT_SLIP = 1000.0
+#: Temperature and pressure used to express a mixing ratio as ug/m3 for the range
+#: checks only [K], [Pa] (20 degC, 1013.25 hPa; the checks are order-of-magnitude).
+_CHECK_T, _CHECK_P = 293.15, 101325.0
+
+
+def sentinel_mask(raw) -> np.ndarray:
+    """True where a number as typed is a missing-value code (:data:`SENTINELS`).
+
+    >>> sentinel_mask([1.0, -999, 9999, -9999.0, 999.5]).tolist()
+    [False, True, True, True, False]
+    """
+    return np.isin(np.asarray(raw, float), SENTINELS)
+
+
+def as_ugm3(amount, kind: str, species: str) -> np.ndarray:
+    """An air concentration as ug of the species per m3, for the range checks.
+
+    Parameters
+    ----------
+    amount : array_like
+        [mol m-3] (``kind="amount_density"``) or [mol mol-1] (``"mixing_ratio"``).
+    kind : str
+    species : str
+
+    Returns
+    -------
+    ndarray
+        [ug m-3]; a mixing ratio taken at 20 degC and 1013.25 hPa.
+    """
+    m = _species.get(species).molar_mass  # [kg mol-1]
+    a = np.asarray(amount, float)
+    if kind == "mixing_ratio":
+        a = a * _CHECK_P / (GAS_CONSTANT * _CHECK_T)
+    return a * m * 1e9
+
+
+def air_checks(species: str, ugm3, censored, groups):
+    """Range and unit-slip checks of one air species.
+
+    Parameters
+    ----------
+    species : str
+    ugm3 : ndarray
+        The values as [ug m-3] (NaN for missing; censored values hold their limit).
+    censored : ndarray of bool
+    groups : ndarray of str
+        One label per row (site and sampler): a unit slip is judged per group.
+
+    Returns
+    -------
+    mask : ndarray of bool
+        Values to set to missing.
+    reasons : ndarray of str
+        The flag per row ("" for none).
+    """
+    hi, tol, _ = AIR_RANGES.get(species, (np.inf, np.inf, ""))
+    v = np.where(censored, np.nan, np.asarray(ugm3, float))
+    n = len(v)
+    reasons = np.full(n, "", dtype=object)
+    too_low = v < -tol
+    reasons[too_low] = (f"{species} negative beyond the blank tolerance -{tol:g} ug/m3 "
+                        "(masked)")
+    too_high = v > hi
+    if too_high.any():
+        g = pd.Series(groups)
+        share = (pd.Series(too_high.astype(float)).where(~np.isnan(v)).groupby(g)
+                 .transform("mean").to_numpy())
+        slip = too_high & (share > 0.5) & (v / UNIT_SLIP <= hi)
+        reasons[too_high & ~slip] = (f"{species} above the plausible {hi:g} ug/m3 (masked)")
+        reasons[slip] = (f"{species} values look {UNIT_SLIP:g}x too high at this sampler: "
+                         "mg/m3 read as ug/m3? (masked)")
+    return too_low | too_high, reasons
+
+
+def ranges_table() -> str:
+    """The ranges as a Markdown table (used in docs/data_formats.md)."""
+    rows = ["| species | max [ug/m3] | negative tolerance [ug/m3] | source |", "|---|---|---|---|"]
+    for sp, (hi, tol, src) in AIR_RANGES.items():
+        rows.append(f"| `{sp}` | {hi:g} | {tol:g} | {src} |")
+    return "\n".join(rows)
