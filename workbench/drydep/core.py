@@ -109,7 +109,7 @@ _MICROMET_OPTIONS = ("roughness", "ustar_floor", "ra_cap", "ra_min_height_z0",
 #: Options of step 5 (season and wetness), besides those of steps 1-4.
 _STATE_OPTIONS = ("seasonal_category", "wetness_rule")
 #: Options of the gases, besides those of steps 1-5.
-_GAS_OPTIONS = ("gas_scheme", "gases", "components", "nh3_treatment")
+_GAS_OPTIONS = ("gas_scheme", "gases", "components", "nh3_treatment", "hno3_rc_floor")
 
 #: What steps 1-4 hand on (the cached result of the surface layer), and step 5.
 _MICROMET_OUT = ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "cloud",
@@ -117,6 +117,31 @@ _MICROMET_OUT = ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "
                  "theta_limited", "night", "us_r", "floor_used", "h_r", "inv_l", "z_ref",
                  "raised", "ra", "cap_used", "valid", "z0_r")
 _STATE_OUT = ("cat", "cat_src", "wet", "kind", "wet_src")
+
+
+def _hourly_lai(surf, receptors, times):
+    """Leaf-area index of each receptor and hour (site, receptor, time) [m2 m-2].
+
+    The catalogue's monthly LAI where given, else the class's default range
+    (:data:`workbench.landuse.DEFAULT_LAI`) by :func:`workbench.landuse.seasonal_lai`.
+    """
+    month = _seasons.calendar_month(times)
+    lat = np.asarray(surf["latitude"].values, float)[:, None, None]
+    lo = np.array([landuse.DEFAULT_LAI[r][0] for r in receptors])[None, :, None]
+    hi = np.array([landuse.DEFAULT_LAI[r][1] for r in receptors])[None, :, None]
+    default = landuse.seasonal_lai(lo, hi, month[None, None, :], lat)
+    if "lai" not in surf:
+        return default
+    given = np.asarray(surf["lai"].transpose("site", "receptor", "month").values, float)
+    given = given[:, :, month - 1]
+    return np.where(np.isnan(given), default, given)
+
+
+def _cos_zenith(times, site):
+    """Cosine of the solar zenith angle at the middle of each hour (site, 1, time) [-]."""
+    doy, hour = time_parts(times - HALF_HOUR)
+    return solar_elevation_sine(doy[None, None, :], hour[None, None, :], site("latitude"),
+                                site("longitude"))
 
 
 def _options_key(opt: DryOptions, names) -> str:
@@ -361,8 +386,12 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
 
     out = {}
     land = rec(np.array(receptors, dtype=object))
-    state = _gas.CanopyState(land, cat, k_down, temp, kind, site("terrain_slope"), us_r)
     def gas_parts():
+        state = _gas.CanopyState(
+            land, cat, k_down, temp, kind, site("terrain_slope"), us_r,
+            lai=_hourly_lai(surf, receptors, block["time"].values),
+            relative_humidity=rh, cos_zenith=_cos_zenith(block["time"].values, site),
+            snow_cover=snow, hno3_rc_floor=opt.hno3_rc_floor)
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
             comps = _gas.surface_resistances(scheme, opt.gases, state)
             rbs = _gas.quasi_laminar_resistances(opt.gases, us_r, temp, pres)
@@ -380,14 +409,16 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             comp = {k.split("|")[0]: v for k, v in gp.items() if k.endswith(f"|{g}")}
             out[f"rb_{g}"] = srt(rb, "s m-1", f"quasi-laminar resistance of {g}")
             out[f"rc_{g}"] = srt(comp["rc"], "s m-1", f"surface resistance of {g} ({scheme.NAME})")
-            if opt.components:
-                for path in ("stomatal", "mesophyll", "upper_canopy", "lower_canopy", "ground"):
-                    out[f"rc_{g}_{path}"] = srt(comp[path], "s m-1",
-                                                f"{path.replace('_', ' ')} resistance of {g}")
-                out["rc_convection"] = srt(comp["convection"], "s m-1",
-                                           "in-canopy buoyant convection resistance r_dc")
-                out["rc_canopy_transfer"] = srt(comp["canopy_transfer"], "s m-1",
-                                                "in-canopy aerodynamic transfer resistance r_ac")
+            if opt.components:  # the scheme's own paths, gas-independent ones once
+                shared = getattr(scheme, "SHARED_PATHS", ())
+                names = getattr(scheme, "PATH_NAMES", {})
+                for path in scheme.PATHS:
+                    unit = "1" if path == "stomatal_blocking" else "s m-1"
+                    label = names.get(path, f"{path.replace('_', ' ')} resistance")
+                    if path in shared:
+                        out[f"rc_{path}"] = srt(comp[path], unit, label)
+                    else:
+                        out[f"rc_{g}_{path}"] = srt(comp[path], unit, f"{label} of {g}")
             if g == "HNO3":
                 out["rc_floor_used_HNO3"] = srt(comp["floor_used"] & valid, "1",
                                                 "HNO3 surface resistance raised to its floor")

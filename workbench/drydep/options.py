@@ -98,8 +98,10 @@ class DryOptions:
     Attributes
     ----------
     gas_scheme : str
-        Surface-resistance scheme for gases; ``"wesely1989"`` (Wesely 1989 with the
-        corrections of Walmsley and Wesely 1996).
+        Surface-resistance scheme for gases: ``"wesely1989"`` (Wesely 1989 with the
+        corrections of Walmsley and Wesely 1996) or ``"zhang2003"`` (Zhang, Brook and
+        Vet 2003: LAI-dependent stomatal and cuticular paths, humidity-dependent
+        cuticle, snow).
     gases : tuple of str
         Gases to compute.
     particles : tuple of str
@@ -135,6 +137,10 @@ class DryOptions:
         Bisection steps of the unstable u* solve.
     charnock_iterations : int
         Fixed-point steps of the Charnock z0 over water.
+    hno3_rc_floor : bool
+        Keep Rc(HNO3) at or above max(10, -2 T[degC]) s/m (Erisman et al. 1994); False:
+        Rc(HNO3) as the scheme gives it, near 0 (Wesely 1989; Huebert and Robert 1985).
+        The literature splits on this (docs/methods_dry.md).
     nh3_treatment : str
         ``"deposition_only"`` (the only one so far; a compensation point comes later).
     components : bool
@@ -157,12 +163,17 @@ class DryOptions:
     unstable_iterations: int = 30
     charnock_iterations: int = 8
     nh3_treatment: str = "deposition_only"
+    hno3_rc_floor: bool = True
     components: bool = True
 
     def __post_init__(self):
         if self.wetness_rule not in WETNESS_RULES:
             raise ValueError(f"unknown wetness_rule {self.wetness_rule!r}; use one of "
                              f"{WETNESS_RULES}")
+        from .gas import SCHEMES
+        if self.gas_scheme not in SCHEMES:
+            raise ValueError(f"unknown gas_scheme {self.gas_scheme!r}; use one of "
+                             f"{tuple(SCHEMES)}")
         if self.nh3_treatment != "deposition_only":
             raise NotImplementedError("only nh3_treatment='deposition_only' exists so far")
         sc = self.seasonal_category
