@@ -131,3 +131,50 @@ def test_demo_so2_above_no2_and_hno3_highest(demo_means):
 def test_table_classes_cover_ours():
     from workbench.landuse import DEFAULT_LAI, LAND_USE
     assert set(zhang2003.ZHANG_CLASS) == set(LAND_USE) == set(DEFAULT_LAI)
+
+
+# --- comparison of schemes in a run ---------------------------------------------------------
+def _tiny_model_scenario(tmp_path, compare):
+    import test_budget as tb
+    tmp_path.mkdir(parents=True)
+    path = tb._write(tmp_path)
+    text = path.read_text()
+    text = text[:text.index("[dry.fixed_velocity]")]          # the model, not fixed Vd
+    path.write_text(text + f"\n[dry]\ncompare_schemes = {str(compare).lower()}\n")
+    return path
+
+
+def test_run_writes_both_schemes_with_a_scheme_column(tmp_path):
+    import pandas as pd
+    from workbench.cli import main
+    one = _tiny_model_scenario(tmp_path / "a", False)
+    both = _tiny_model_scenario(tmp_path / "b", True)
+    assert main(["run", str(one), "--out", str(tmp_path / "o1"), "--quiet"]) == 0
+    assert main(["run", str(both), "--out", str(tmp_path / "o2"), "--quiet"]) == 0
+    t1 = pd.read_csv(tmp_path / "o1" / "budget.csv")
+    t2 = pd.read_csv(tmp_path / "o2" / "budget.csv")
+    assert "scheme" not in t1
+    assert list(dict.fromkeys(t2["scheme"])) == ["wesely1989", "zhang2003"]
+    wes = t2[t2["scheme"] == "wesely1989"].drop(columns="scheme").reset_index(drop=True)
+    pd.testing.assert_frame_equal(wes, t1)                   # the chosen scheme unchanged
+    zh = t2[t2["scheme"] == "zhang2003"].reset_index(drop=True)
+    assert len(zh) == len(t1)
+    key = (t1["pathway"] == "dry") & (t1["species"] == "SO2")
+    assert key.any()
+    a, b = wes.loc[key, "flux_kg_ha"].to_numpy(), zh.loc[key, "flux_kg_ha"].to_numpy()
+    assert np.isfinite(a).any() and not np.allclose(a, b, equal_nan=True)
+
+
+def test_annual_vd_table_by_scheme(synthetic):
+    from workbench.comparison import annual_vd_table, schemes_in_order
+    surf, met = synthetic
+    assert schemes_in_order(DryOptions(gas_scheme="zhang2003")) == ["zhang2003", "wesely1989"]
+    runs = {s: velocities(met, surf, DryOptions(gas_scheme=s, particles=()))
+            for s in ("wesely1989", "zhang2003")}
+    t = annual_vd_table(runs)
+    assert set(t["scheme"]) == {"wesely1989", "zhang2003"}
+    assert len(t) == 2 * 5 * int(surf["active"].sum())
+    row = t[(t.site == "alder_hill") & (t.receptor == "grass") & (t.species == "O3")
+            & (t.scheme == "zhang2003")]
+    expected = float(runs["zhang2003"]["vd_O3"].sel(site="alder_hill", receptor="grass").mean()) * 100
+    assert float(row["vd_cm_s"].iloc[0]) == pytest.approx(expected)

@@ -137,6 +137,10 @@ class DryOptions:
         Bisection steps of the unstable u* solve.
     charnock_iterations : int
         Fixed-point steps of the Charnock z0 over water.
+    compare_schemes : bool
+        ``workbench run`` also computes the budget under every other gas scheme and
+        writes all of them to budget.csv with a ``scheme`` column (the structural
+        uncertainty of the choice of scheme; :mod:`workbench.comparison`).
     hno3_rc_floor : bool
         Keep Rc(HNO3) at or above max(10, -2 T[degC]) s/m (Erisman et al. 1994); False:
         Rc(HNO3) as the scheme gives it, near 0 (Wesely 1989; Huebert and Robert 1985).
@@ -164,6 +168,7 @@ class DryOptions:
     charnock_iterations: int = 8
     nh3_treatment: str = "deposition_only"
     hno3_rc_floor: bool = True
+    compare_schemes: bool = False
     components: bool = True
 
     def __post_init__(self):
