@@ -107,7 +107,7 @@ _MICROMET_OPTIONS = ("roughness", "ustar_floor", "ra_cap", "ra_min_height_z0",
                      "blending_height", "night_cloud_cover", "unstable_iterations",
                      "charnock_iterations")
 #: Options of step 5 (season and wetness), besides those of steps 1-4.
-_STATE_OPTIONS = ("seasonal_category", "wetness_rule")
+_STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule")
 #: Options of the gases, besides those of steps 1-5.
 _GAS_OPTIONS = ("gas_scheme", "gases", "components", "nh3_treatment", "hno3_rc_floor")
 
@@ -135,6 +135,34 @@ def _hourly_lai(surf, receptors, times):
     given = np.asarray(surf["lai"].transpose("site", "receptor", "month").values, float)
     given = given[:, :, month - 1]
     return np.where(np.isnan(given), default, given)
+
+
+def _lai_season(surf, times):
+    """Seasonal category from the LAI cycle of each site's own surface (site, 1, time).
+
+    The catalogue's monthly LAI of the site's own surface, else its class's default
+    range (as :func:`_hourly_lai`), through :func:`workbench.drydep.seasons.category_from_lai`
+    (the month rule where the LAI does not vary).  Returns the category and its
+    source code [-].
+    """
+    lat = np.asarray(surf["latitude"].values, float)[:, None]
+    months = np.arange(1, 13)[None, :]
+    own = [str(x) for x in surf["land_use"].values]
+    lo = np.array([landuse.DEFAULT_LAI[r][0] for r in own])[:, None]
+    hi = np.array([landuse.DEFAULT_LAI[r][1] for r in own])[:, None]
+    lai = landuse.seasonal_lai(lo, hi, months, lat)
+    if "lai" in surf:
+        mine = surf["is_site_surface"].values.astype(bool)
+        given = np.asarray(surf["lai"].transpose("site", "receptor", "month").values, float)
+        given = np.where(mine[:, :, None], given, np.nan)
+        has = np.isfinite(given).any(axis=1)
+        with np.errstate(all="ignore"):
+            lai = np.where(has, np.nanmax(np.where(np.isfinite(given), given, -np.inf), axis=1),
+                           lai)
+    cat_m, src_m = _seasons.category_from_lai(
+        lai, _seasons.category_from_month(months + 0 * lat.astype(int), lat))
+    idx = _seasons.calendar_month(times) - 1
+    return cat_m[:, None, idx], src_m[:, None, idx]
 
 
 def _cos_zenith(times, site):
@@ -328,6 +356,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             cat_src = 3.0 + 0.0 * cat
         else:
             by_month = _seasons.category_from_month(month, site("latitude"))
+            if opt.season_rule == "surface_state":
+                by_month, lai_src = _lai_season(met_surf, times)
             base = by_month + 0.0 * temp
             if _FROST in block:  # found beforehand on the whole record (dask blocks)
                 seen = st(_FROST) > 0.5
@@ -336,20 +366,29 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                     by_month, temp, times.astype("datetime64[Y]").astype(np.int64)[None, None, :])
             cat, cat_src = _seasons.category_from_state(base, seen, temp,
                                                         snow if "snow_cover" in block else None)
+            if opt.season_rule == "surface_state":
+                cat_src = np.where(cat_src == 0.0, lai_src, cat_src)
         if _PREV in block:  # found beforehand on the whole record (dask blocks)
             prev = st(_PREV)
         else:  # the whole record is here: the previous hour's, NaN for the first
             prev = np.concatenate([np.full(precip.shape[:-1] + (1,), np.nan), precip[..., :-1]],
                                   axis=-1)
         rain = _wetness.rain_wet(precip, prev)
-        dew = _wetness.dew_wet(specific_humidity_deficit(temp, rh, pres), us_r)
+        if dew_rule == "surface_temperature":
+            with np.errstate(invalid="ignore", divide="ignore"):
+                t_s = _wetness.surface_temperature(temp, h_r, ra, us_r, rho)
+            deficit = _wetness.surface_humidity_deficit(t_s, temp, rh, pres)
+        else:
+            deficit = specific_humidity_deficit(temp, rh, pres)
+        dew = _wetness.dew_wet(deficit, us_r)
         given = st("surface_wet") if "surface_wet" in block else None
         wet, kind, wet_src = _wetness.wetness(opt.wetness_rule, rain, dew, given)
 
         here = locals()
         return {k: here[k] for k in _STATE_OUT}
 
-    k_state = rkey + _options_key(opt, _MICROMET_OPTIONS + _STATE_OPTIONS)
+    dew_rule = _wetness.resolve_dew_rule(opt.dew_rule, scheme)
+    k_state = rkey + _options_key(opt, _MICROMET_OPTIONS + _STATE_OPTIONS) + dew_rule
     sw = _stage(cache, "state", k_state, season_wetness)
     (cat, cat_src, wet, kind, wet_src) = (sw[k] for k in _STATE_OUT)
 
@@ -560,8 +599,13 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         # _hourly sees the whole record and does them itself
         aug = aug.assign({_PREV: met["precipitation"].astype(float).shift(time=1)})
         if opt.seasonal_category is None:
+            base = None
+            if opt.season_rule == "surface_state":
+                base = xr.DataArray(_lai_season(met_surf, met["time"].values)[0][:, 0, :],
+                                    dims=("site", "time"),
+                                    coords={"site": met["site"].values, "time": met["time"]})
             seen = _seasons.autumn_frost_seen(met["time"], surf["latitude"].astype(float),
-                                              met["temperature"].astype(float))
+                                              met["temperature"].astype(float), base=base)
             aug = aug.assign({_FROST: seen.astype(float)})
     aug = aug.reset_coords(drop=True).transpose("site", "time")
     if lazy:

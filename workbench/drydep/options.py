@@ -110,6 +110,15 @@ class DryOptions:
         ``"met"``: the met file's ``surface_wet`` where given, else the inferred rule
         (rain in this or the previous hour, or dew); ``"inferred"``: always the rule;
         ``"always_dry"`` / ``"always_wet"``: every hour dry / wet.
+    dew_rule : str
+        Saturation humidity of the dew rule at the ``"surface_temperature"`` (found from
+        the heat flux; Zhang et al. 2003) or at the ``"air_temperature"`` (a threshold
+        on relative humidity); ``"scheme"``: the rule the gas scheme publishes
+        (wesely1989: air, zhang2003: surface). docs/methods_dry.md section 8.
+    season_rule : str
+        ``"month"``: Wesely's category from the calendar month and latitude, then frost
+        and snow; ``"surface_state"``: from the leaf-area index of the site's own
+        surface (green, greening, browning, dormant), then frost and snow (section 7).
     seasonal_category : None, int or 12-tuple of int
         None: automatic (surface state, then month and latitude); an int 1-5 for
         every hour; or one category per calendar month.
@@ -155,6 +164,8 @@ class DryOptions:
     gases: tuple = ("SO2", "HNO3", "NH3", "NO2", "O3")
     particles: tuple = ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa")
     wetness_rule: str = "met"
+    dew_rule: str = "scheme"
+    season_rule: str = "month"
     seasonal_category: object = None
     ustar_floor: float = 0.05
     ra_cap: float = 1000.0
@@ -176,6 +187,13 @@ class DryOptions:
             raise ValueError(f"unknown wetness_rule {self.wetness_rule!r}; use one of "
                              f"{WETNESS_RULES}")
         from .gas import SCHEMES
+        from .seasons import SEASON_RULES
+        from .wetness import DEW_RULES
+        if self.dew_rule not in DEW_RULES:
+            raise ValueError(f"unknown dew_rule {self.dew_rule!r}; use one of {DEW_RULES}")
+        if self.season_rule not in SEASON_RULES:
+            raise ValueError(f"unknown season_rule {self.season_rule!r}; use one of "
+                             f"{SEASON_RULES}")
         if self.gas_scheme not in SCHEMES:
             raise ValueError(f"unknown gas_scheme {self.gas_scheme!r}; use one of "
                              f"{tuple(SCHEMES)}")
