@@ -196,7 +196,7 @@ def surface_humidity_deficit(surface_temp, temperature, relative_humidity, press
 
     Notes
     -----
-    :math:`q \approx \varepsilon e / p`, e = RH e_s(T_a); negative when the surface is
+    :math:`q \\approx \\varepsilon e / p`, e = RH e_s(T_a); negative when the surface is
     below the dew point.
     """
     eps = MOLAR_MASS_WATER / MOLAR_MASS_DRY_AIR
