@@ -39,6 +39,7 @@ from ..surface.air import (air_density, kinematic_viscosity, specific_humidity_d
 from ..surface.roughness import charnock_roughness, land_use_roughness
 from ..surface.solar import solar_elevation_sine, time_parts
 from . import gas as _gas
+from . import nh3_bidirectional as _nh3
 from . import particles as _particles
 from . import seasons as _seasons
 from . import wetness as _wetness
@@ -61,6 +62,10 @@ NH3_NOTE = ("NH3: deposition only (no compensation point, no emission); vd_NH3 i
             "deposition velocity of a unidirectional flux")
 
 
+NH3_BIDIRECTIONAL_NOTE = (
+    "canopy compensation point (Sutton et al. 1998; Nemitz et al. 2000; Massad et al. "
+    "2010): net NH3 flux = C vd_NH3_bidirectional - nh3_emission_flux (positive down); "
+    "vd_NH3 stays the deposition-only velocity used by the budget")
 
 #: Met variables read (those present), besides the derived ones.
 MET_VARIABLES = ("wind_speed", "temperature", "relative_humidity", "solar_radiation",
@@ -109,7 +114,8 @@ _MICROMET_OPTIONS = ("roughness", "ustar_floor", "ra_cap", "ra_min_height_z0",
 #: Options of step 5 (season and wetness), besides those of steps 1-4.
 _STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule")
 #: Options of the gases, besides those of steps 1-5.
-_GAS_OPTIONS = ("gas_scheme", "gases", "components", "nh3_treatment", "hno3_rc_floor")
+_GAS_OPTIONS = ("gas_scheme", "gases", "components", "nh3_treatment", "hno3_rc_floor",
+                "nh3_emission_potential", "nh3_acid_ratio")
 
 #: What steps 1-4 hand on (the cached result of the surface layer), and step 5.
 _MICROMET_OUT = ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "cloud",
@@ -439,7 +445,22 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                 flat[f"rb|{g}"] = rbs[g]
                 flat.update({f"{k}|{g}": v for k, v in comps[g].items()})
                 flat[f"vd|{g}"] = _gas.deposition_velocity(ra, rbs[g], comps[g]["rc"])
+            if opt.nh3_treatment == "bidirectional" and "NH3" in opt.gases:
+                flat.update(_nh3_exchange(comps["NH3"], rbs["NH3"]))
         return flat
+
+    def _nh3_exchange(nh3, rb):
+        """Canopy compensation point model of NH3 on the scheme's stomatal path."""
+        gamma = np.stack([_nh3.emission_potential(receptors, opt.nh3_emission_potential, str(s))
+                          for s in surf["site"].values])[:, :, None]
+        chi_s = _nh3.stomatal_compensation_point(gamma, temp)
+        r_w = _nh3.cuticular_resistance(rh, opt.nh3_acid_ratio)
+        r_s = nh3["stomatal"] + nh3.get("mesophyll", 0.0)
+        vd, emission = _nh3.exchange(ra, rb, r_s, r_w, chi_s)
+        leaves = rec(np.array([r in _nh3.VEGETATED for r in receptors]))
+        vd = np.where(leaves, vd, _gas.deposition_velocity(ra, rb, nh3["rc"]))  # no canopy:
+        emission = np.where(leaves, emission, 0.0)                             # the scheme's Vd
+        return {"nh3bd|vd": vd, "nh3bd|emission": emission, "nh3bd|chi_s": chi_s + 0.0 * vd}
 
     gp = _stage(cache, "gases", k_state + _options_key(opt, _GAS_OPTIONS), gas_parts)
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
@@ -464,6 +485,14 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             vd = comp["vd"]
             extra = {"note": NH3_NOTE} if g == "NH3" else {}
             out[f"vd_{g}"] = srt(vd, "m s-1", f"dry deposition velocity of {g}", **extra)
+        if "nh3bd|vd" in gp:
+            out["vd_NH3_bidirectional"] = srt(
+                gp["nh3bd|vd"], "m s-1", "NH3 deposition velocity of the canopy compensation "
+                "point model (net flux = C vd - nh3_emission_flux)", note=NH3_BIDIRECTIONAL_NOTE)
+            out["nh3_emission_flux"] = srt(gp["nh3bd|emission"], "mol m-2 s-1",
+                                           "NH3 emission term of the compensation point model")
+            out["nh3_compensation_point"] = srt(gp["nh3bd|chi_s"], "mol m-3",
+                                                "NH3 stomatal compensation point chi_s")
         # each distinct mode once, all of them in one call (shared surface terms)
         parts = {}
         for sp in opt.particles:

@@ -155,7 +155,16 @@ class DryOptions:
         Rc(HNO3) as the scheme gives it, near 0 (Wesely 1989; Huebert and Robert 1985).
         The literature splits on this (docs/methods_dry.md).
     nh3_treatment : str
-        ``"deposition_only"`` (the only one so far; a compensation point comes later).
+        ``"deposition_only"``; or ``"bidirectional"``: also the canopy compensation point
+        model (:mod:`workbench.drydep.nh3_bidirectional`), written as
+        ``vd_NH3_bidirectional`` and ``nh3_emission_flux`` beside the deposition-only
+        ``vd_NH3`` (which the budget still uses).
+    nh3_emission_potential : dict
+        Stomatal emission potential Gamma_s [-] replacing the class default, keyed by
+        class (``"crops"``) or by site and class (``"farm/grass"``).
+    nh3_acid_ratio : float
+        Molar ratio (2 SO2 + HNO3)/NH3 of the cuticular resistance (Massad et al.
+        2010); 1 by default (our choice). [-]
     components : bool
         Return every path of Rc per gas (memory: about seven arrays per gas).
     """
@@ -178,6 +187,8 @@ class DryOptions:
     unstable_iterations: int = 30
     charnock_iterations: int = 8
     nh3_treatment: str = "deposition_only"
+    nh3_emission_potential: dict = field(default_factory=dict)
+    nh3_acid_ratio: float = 1.0
     hno3_rc_floor: bool = True
     compare_schemes: bool = False
     components: bool = True
@@ -197,8 +208,17 @@ class DryOptions:
         if self.gas_scheme not in SCHEMES:
             raise ValueError(f"unknown gas_scheme {self.gas_scheme!r}; use one of "
                              f"{tuple(SCHEMES)}")
-        if self.nh3_treatment != "deposition_only":
-            raise NotImplementedError("only nh3_treatment='deposition_only' exists so far")
+        if self.nh3_treatment not in ("deposition_only", "bidirectional"):
+            raise ValueError(f"unknown nh3_treatment {self.nh3_treatment!r}; use "
+                             "'deposition_only' or 'bidirectional'")
+        from ..landuse import LAND_USE
+        for key, value in self.nh3_emission_potential.items():
+            if str(key).split("/")[-1] not in LAND_USE or not float(value) >= 0:
+                raise ValueError(f"nh3_emission_potential: {key!r} = {value!r}; expected "
+                                 "'<class>' or '<site>/<class>' of our land-use classes and "
+                                 "a value >= 0")
+        if not self.nh3_acid_ratio > 0:
+            raise ValueError("nh3_acid_ratio must be > 0")
         sc = self.seasonal_category
         if sc is not None:
             cats = [sc] if isinstance(sc, int) else list(sc)
