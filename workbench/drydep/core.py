@@ -38,6 +38,7 @@ from ..surface.air import (air_density, kinematic_viscosity, specific_humidity_d
                            standard_pressure_at)
 from ..surface.roughness import charnock_roughness, land_use_roughness
 from ..surface.solar import solar_elevation_sine, time_parts
+from . import canopy as _canopy
 from . import gas as _gas
 from . import nh3_bidirectional as _nh3
 from . import particles as _particles
@@ -123,59 +124,6 @@ _MICROMET_OUT = ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "
                  "theta_limited", "night", "us_r", "floor_used", "h_r", "inv_l", "z_ref",
                  "raised", "ra", "cap_used", "valid", "z0_r")
 _STATE_OUT = ("cat", "cat_src", "wet", "kind", "wet_src")
-
-
-def _hourly_lai(surf, receptors, times):
-    """Leaf-area index of each receptor and hour (site, receptor, time) [m2 m-2].
-
-    The catalogue's monthly LAI where given, else the class's default range
-    (:data:`workbench.landuse.DEFAULT_LAI`) by :func:`workbench.landuse.seasonal_lai`.
-    """
-    month = _seasons.calendar_month(times)
-    lat = np.asarray(surf["latitude"].values, float)[:, None, None]
-    lo = np.array([landuse.DEFAULT_LAI[r][0] for r in receptors])[None, :, None]
-    hi = np.array([landuse.DEFAULT_LAI[r][1] for r in receptors])[None, :, None]
-    default = landuse.seasonal_lai(lo, hi, month[None, None, :], lat)
-    if "lai" not in surf:
-        return default
-    given = np.asarray(surf["lai"].transpose("site", "receptor", "month").values, float)
-    given = given[:, :, month - 1]
-    return np.where(np.isnan(given), default, given)
-
-
-def _lai_season(surf, times):
-    """Seasonal category from the LAI cycle of each site's own surface (site, 1, time).
-
-    The catalogue's monthly LAI of the site's own surface, else its class's default
-    range (as :func:`_hourly_lai`), through :func:`workbench.drydep.seasons.category_from_lai`
-    (the month rule where the LAI does not vary).  Returns the category and its
-    source code [-].
-    """
-    lat = np.asarray(surf["latitude"].values, float)[:, None]
-    months = np.arange(1, 13)[None, :]
-    own = [str(x) for x in surf["land_use"].values]
-    lo = np.array([landuse.DEFAULT_LAI[r][0] for r in own])[:, None]
-    hi = np.array([landuse.DEFAULT_LAI[r][1] for r in own])[:, None]
-    lai = landuse.seasonal_lai(lo, hi, months, lat)
-    if "lai" in surf:
-        mine = surf["is_site_surface"].values.astype(bool)
-        given = np.asarray(surf["lai"].transpose("site", "receptor", "month").values, float)
-        given = np.where(mine[:, :, None], given, np.nan)
-        has = np.isfinite(given).any(axis=1)
-        with np.errstate(all="ignore"):
-            lai = np.where(has, np.nanmax(np.where(np.isfinite(given), given, -np.inf), axis=1),
-                           lai)
-    cat_m, src_m = _seasons.category_from_lai(
-        lai, _seasons.category_from_month(months + 0 * lat.astype(int), lat))
-    idx = _seasons.calendar_month(times) - 1
-    return cat_m[:, None, idx], src_m[:, None, idx]
-
-
-def _cos_zenith(times, site):
-    """Cosine of the solar zenith angle at the middle of each hour (site, 1, time) [-]."""
-    doy, hour = time_parts(times - HALF_HOUR)
-    return solar_elevation_sine(doy[None, None, :], hour[None, None, :], site("latitude"),
-                                site("longitude"))
 
 
 def _options_key(opt: DryOptions, names) -> str:
@@ -363,7 +311,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         else:
             by_month = _seasons.category_from_month(month, site("latitude"))
             if opt.season_rule == "surface_state":
-                by_month, lai_src = _lai_season(met_surf, times)
+                by_month, lai_src = _canopy.lai_season(met_surf, times)
             base = by_month + 0.0 * temp
             if _FROST in block:  # found beforehand on the whole record (dask blocks)
                 seen = st(_FROST) > 0.5
@@ -434,8 +382,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     def gas_parts():
         state = _gas.CanopyState(
             land, cat, k_down, temp, kind, site("terrain_slope"), us_r,
-            lai=_hourly_lai(surf, receptors, block["time"].values),
-            relative_humidity=rh, cos_zenith=_cos_zenith(block["time"].values, site),
+            lai=_canopy.hourly_lai(surf, receptors, block["time"].values),
+            relative_humidity=rh, cos_zenith=_canopy.cos_zenith(block["time"].values, site),
             snow_cover=snow, hno3_rc_floor=opt.hno3_rc_floor)
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
             comps = _gas.surface_resistances(scheme, opt.gases, state)
@@ -446,21 +394,11 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                 flat.update({f"{k}|{g}": v for k, v in comps[g].items()})
                 flat[f"vd|{g}"] = _gas.deposition_velocity(ra, rbs[g], comps[g]["rc"])
             if opt.nh3_treatment == "bidirectional" and "NH3" in opt.gases:
-                flat.update(_nh3_exchange(comps["NH3"], rbs["NH3"]))
+                flat.update({f"nh3bd|{k}": v for k, v in _nh3.hourly_exchange(
+                    comps["NH3"], rbs["NH3"], ra, temp, rh, receptors,
+                    [str(x) for x in surf["site"].values], opt).items()})
         return flat
 
-    def _nh3_exchange(nh3, rb):
-        """Canopy compensation point model of NH3 on the scheme's stomatal path."""
-        gamma = np.stack([_nh3.emission_potential(receptors, opt.nh3_emission_potential, str(s))
-                          for s in surf["site"].values])[:, :, None]
-        chi_s = _nh3.stomatal_compensation_point(gamma, temp)
-        r_w = _nh3.cuticular_resistance(rh, opt.nh3_acid_ratio)
-        r_s = nh3["stomatal"] + nh3.get("mesophyll", 0.0)
-        vd, emission = _nh3.exchange(ra, rb, r_s, r_w, chi_s)
-        leaves = rec(np.array([r in _nh3.VEGETATED for r in receptors]))
-        vd = np.where(leaves, vd, _gas.deposition_velocity(ra, rb, nh3["rc"]))  # no canopy:
-        emission = np.where(leaves, emission, 0.0)                             # the scheme's Vd
-        return {"nh3bd|vd": vd, "nh3bd|emission": emission, "nh3bd|chi_s": chi_s + 0.0 * vd}
 
     gp = _stage(cache, "gases", k_state + _options_key(opt, _GAS_OPTIONS), gas_parts)
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
@@ -630,7 +568,7 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         if opt.seasonal_category is None:
             base = None
             if opt.season_rule == "surface_state":
-                base = xr.DataArray(_lai_season(met_surf, met["time"].values)[0][:, 0, :],
+                base = xr.DataArray(_canopy.lai_season(met_surf, met["time"].values)[0][:, 0, :],
                                     dims=("site", "time"),
                                     coords={"site": met["site"].values, "time": met["time"]})
             seen = _seasons.autumn_frost_seen(met["time"], surf["latitude"].astype(float),

@@ -182,3 +182,40 @@ def net_flux(concentration, vd, emission):
         ``nh3_emission_flux``. [mol m-2 s-1]
     """
     return concentration * vd - emission
+
+
+def hourly_exchange(nh3_paths, rb, ra, temperature, relative_humidity, receptors, sites,
+                    options) -> dict:
+    """The compensation point model on the engine's arrays (site, receptor, time).
+
+    Parameters
+    ----------
+    nh3_paths : dict
+        The gas scheme's NH3 resistances (``rc``, ``stomatal``, optionally
+        ``mesophyll``). [s m-1]
+    rb, ra : numpy.ndarray
+        [s m-1]
+    temperature : numpy.ndarray
+        [K]
+    relative_humidity : numpy.ndarray
+        [1]
+    receptors, sites : list of str
+        Along the receptor and site axes.
+    options : workbench.drydep.DryOptions
+        ``nh3_emission_potential`` and ``nh3_acid_ratio``.
+
+    Returns
+    -------
+    dict
+        ``vd`` [m s-1], ``emission`` [mol m-2 s-1], ``chi_s`` [mol m-3]; on receptors
+        without a canopy the scheme's deposition-only Vd and no emission.
+    """
+    gamma = np.stack([emission_potential(receptors, options.nh3_emission_potential, s)
+                      for s in sites])[:, :, None]
+    chi_s = stomatal_compensation_point(gamma, temperature)
+    r_w = cuticular_resistance(relative_humidity, options.nh3_acid_ratio)
+    r_s = nh3_paths["stomatal"] + nh3_paths.get("mesophyll", 0.0)
+    vd, emission = exchange(ra, rb, r_s, r_w, chi_s)
+    leaves = np.array([r in VEGETATED for r in receptors])[None, :, None]
+    vd = np.where(leaves, vd, 1.0 / (ra + rb + nh3_paths["rc"]))
+    return {"vd": vd, "emission": np.where(leaves, emission, 0.0), "chi_s": chi_s + 0.0 * vd}
