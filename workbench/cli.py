@@ -48,8 +48,9 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False):
 
     study = Study.from_scenario(sc, progress=step)
     p = sc.data["period"]
-    result = study.run(sc.options["wet"], sc.options["dry"], sc.options["budget"],
-                       sc.fixed_velocity, p["resolution"], p["start"], p["end"])
+    from .comparison import run as run_compared
+    result = run_compared(study, sc.options["wet"], sc.options["dry"], sc.options["budget"],
+                          sc.fixed_velocity, p["resolution"], p["start"], p["end"])
     step("writing")
     written = write_run(result, study, sc, out, overwrite=True,
                         progress=lambda text: bar.set_postfix_str(text))

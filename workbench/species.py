@@ -21,9 +21,11 @@ Sources
   Table 2 (values recalled from memory; checked for internal consistency only).
 * Molecular diffusivities in air at 273.15 K and 101.325 kPa: Massman (1998),
   Atmos. Environ. 32, 1111-1127, Table 2 (SO2, NH3, NO2, O3, H2O; recalled from
-  memory). Massman gives no HNO3 value: for HNO3 we use the estimation method of
-  Fuller, Schettler and Giddings (1966), Ind. Eng. Chem. 58(5), 18-27, evaluated in
-  :func:`fuller_diffusivity` with the atomic diffusion volumes of that paper.
+  memory). Massman gives no HNO3 value: for HNO3 we use the measured value of
+  Durham and Stockburger (1986), Atmos. Environ. 20, 559-563: 0.118 cm2 s-1 at
+  298.15 K and 1 atm (from memory), taken to 273.15 K with Massman's exponent 1.81.
+  The estimation method of Fuller, Schettler and Giddings (1966), Ind. Eng. Chem.
+  58(5), 18-27 (:func:`fuller_diffusivity`, used before) gives 28 % more.
 * Limiting equivalent ionic conductances at 25 degC [S cm2 eq-1]: CRC Handbook of
   Chemistry and Physics, "Ionic conductivity and diffusion at infinite dilution"
   (values per equivalent, i.e. for 1/2 Ca2+, 1/2 SO4 2-; recalled from memory).
@@ -123,6 +125,13 @@ class Species:
 
 _DIFF_MASSMAN = "Massman (1998), Atmos. Environ. 32, 1111, Table 2 (from memory)"
 _DIFF_FULLER = "Fuller, Schettler and Giddings (1966) estimation method"
+_DIFF_DURHAM = ("Durham and Stockburger (1986), Atmos. Environ. 20, 559: 0.118 cm2/s at "
+                "298.15 K (from memory), scaled to 273.15 K by (T/T0)^1.81")
+#: Measured HNO3 diffusivity in air at 298.15 K, 1 atm [m2 s-1] (Durham and
+#: Stockburger 1986, from memory).
+HNO3_DIFFUSIVITY_298 = 0.118e-4
+#: Temperature exponent of gas diffusivities (Massman 1998) [-].
+DIFFUSIVITY_T_EXPONENT = 1.81
 
 _TABLE = [
     # --- ions in precipitation (conductances: CRC Handbook, from memory) ------------
@@ -143,8 +152,9 @@ _TABLE = [
     Species("SO2", "SO2", "gas", "sulfur dioxide", "S", 1, 0, 2, henry_eff=1e5,
             reactivity=0.0, diffusivity_0=0.1089e-4, diffusivity_source=_DIFF_MASSMAN),
     Species("HNO3", "HNO3", "gas", "nitric acid", "N", 1, 0, 1, henry_eff=1e14,
-            reactivity=0.0, diffusivity_0=fuller_diffusivity("HNO3"),
-            diffusivity_source=_DIFF_FULLER),
+            reactivity=0.0,
+            diffusivity_0=HNO3_DIFFUSIVITY_298 * (ZERO_CELSIUS / 298.15) ** DIFFUSIVITY_T_EXPONENT,
+            diffusivity_source=_DIFF_DURHAM),
     Species("NH3", "NH3", "gas", "ammonia", "N", 1, 0, 1, henry_eff=2e4,
             reactivity=0.0, diffusivity_0=0.1978e-4, diffusivity_source=_DIFF_MASSMAN),
     Species("NO2", "NO2", "gas", "nitrogen dioxide", "N", 1, 0, 1, henry_eff=0.01,
@@ -217,4 +227,5 @@ def diffusivity(name: str, temperature, pressure):
     sp = get(name)
     if sp.diffusivity_0 is None:
         raise ValueError(f"no molecular diffusivity for {name}")
-    return sp.diffusivity_0 * (STANDARD_PRESSURE / pressure) * (temperature / ZERO_CELSIUS) ** 1.81
+    return (sp.diffusivity_0 * (STANDARD_PRESSURE / pressure)
+            * (temperature / ZERO_CELSIUS) ** DIFFUSIVITY_T_EXPONENT)

@@ -75,3 +75,11 @@ def test_rb_of_several_gases_equal_one_by_one():
     for g in gases:
         np.testing.assert_array_equal(together[g], gas.quasi_laminar_resistance(g, ustar, temp, pres))
     assert np.isnan(together["SO2"][0, :, 7]).all()
+
+
+def test_hno3_diffusivity_durham_stockburger_1986():
+    # Durham and Stockburger (1986), Atmos. Environ. 20, 559: 0.118 cm2/s at 298.15 K,
+    # 1 atm (from memory); Fuller's estimate is about 28 % above it
+    assert diffusivity("HNO3", 298.15, 101325.0) == pytest.approx(0.118e-4, rel=1e-9)
+    fuller_298 = fuller_diffusivity("HNO3") * (298.15 / 273.15) ** 1.81
+    assert fuller_298 / 0.118e-4 == pytest.approx(1.28, abs=0.01)

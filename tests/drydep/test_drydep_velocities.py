@@ -224,8 +224,8 @@ def test_options_validated():
         DryOptions(wetness_rule="sometimes")
     with pytest.raises(ValueError):
         DryOptions(seasonal_category=7)
-    with pytest.raises(NotImplementedError):
-        DryOptions(nh3_treatment="bidirectional")
+    with pytest.raises(ValueError):
+        DryOptions(nh3_treatment="both_ways")
 
 
 def test_dask_chunked_equals_in_memory(surfaces):

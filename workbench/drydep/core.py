@@ -38,7 +38,9 @@ from ..surface.air import (air_density, kinematic_viscosity, specific_humidity_d
                            standard_pressure_at)
 from ..surface.roughness import charnock_roughness, land_use_roughness
 from ..surface.solar import solar_elevation_sine, time_parts
+from . import canopy as _canopy
 from . import gas as _gas
+from . import nh3_bidirectional as _nh3
 from . import particles as _particles
 from . import seasons as _seasons
 from . import wetness as _wetness
@@ -61,6 +63,10 @@ NH3_NOTE = ("NH3: deposition only (no compensation point, no emission); vd_NH3 i
             "deposition velocity of a unidirectional flux")
 
 
+NH3_BIDIRECTIONAL_NOTE = (
+    "canopy compensation point (Sutton et al. 1998; Nemitz et al. 2000; Massad et al. "
+    "2010): net NH3 flux = C vd_NH3_bidirectional - nh3_emission_flux (positive down); "
+    "vd_NH3 stays the deposition-only velocity used by the budget")
 
 #: Met variables read (those present), besides the derived ones.
 MET_VARIABLES = ("wind_speed", "temperature", "relative_humidity", "solar_radiation",
@@ -107,9 +113,10 @@ _MICROMET_OPTIONS = ("roughness", "ustar_floor", "ra_cap", "ra_min_height_z0",
                      "blending_height", "night_cloud_cover", "unstable_iterations",
                      "charnock_iterations")
 #: Options of step 5 (season and wetness), besides those of steps 1-4.
-_STATE_OPTIONS = ("seasonal_category", "wetness_rule")
+_STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule")
 #: Options of the gases, besides those of steps 1-5.
-_GAS_OPTIONS = ("gas_scheme", "gases", "components", "nh3_treatment")
+_GAS_OPTIONS = ("gas_scheme", "gases", "components", "nh3_treatment", "hno3_rc_floor",
+                "nh3_emission_potential", "nh3_acid_ratio")
 
 #: What steps 1-4 hand on (the cached result of the surface layer), and step 5.
 _MICROMET_OUT = ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "cloud",
@@ -303,6 +310,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             cat_src = 3.0 + 0.0 * cat
         else:
             by_month = _seasons.category_from_month(month, site("latitude"))
+            if opt.season_rule == "surface_state":
+                by_month, lai_src = _canopy.lai_season(met_surf, times)
             base = by_month + 0.0 * temp
             if _FROST in block:  # found beforehand on the whole record (dask blocks)
                 seen = st(_FROST) > 0.5
@@ -311,20 +320,29 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                     by_month, temp, times.astype("datetime64[Y]").astype(np.int64)[None, None, :])
             cat, cat_src = _seasons.category_from_state(base, seen, temp,
                                                         snow if "snow_cover" in block else None)
+            if opt.season_rule == "surface_state":
+                cat_src = np.where(cat_src == 0.0, lai_src, cat_src)
         if _PREV in block:  # found beforehand on the whole record (dask blocks)
             prev = st(_PREV)
         else:  # the whole record is here: the previous hour's, NaN for the first
             prev = np.concatenate([np.full(precip.shape[:-1] + (1,), np.nan), precip[..., :-1]],
                                   axis=-1)
         rain = _wetness.rain_wet(precip, prev)
-        dew = _wetness.dew_wet(specific_humidity_deficit(temp, rh, pres), us_r)
+        if dew_rule == "surface_temperature":
+            with np.errstate(invalid="ignore", divide="ignore"):
+                t_s = _wetness.surface_temperature(temp, h_r, ra, us_r, rho)
+            deficit = _wetness.surface_humidity_deficit(t_s, temp, rh, pres)
+        else:
+            deficit = specific_humidity_deficit(temp, rh, pres)
+        dew = _wetness.dew_wet(deficit, us_r)
         given = st("surface_wet") if "surface_wet" in block else None
         wet, kind, wet_src = _wetness.wetness(opt.wetness_rule, rain, dew, given)
 
         here = locals()
         return {k: here[k] for k in _STATE_OUT}
 
-    k_state = rkey + _options_key(opt, _MICROMET_OPTIONS + _STATE_OPTIONS)
+    dew_rule = _wetness.resolve_dew_rule(opt.dew_rule, scheme)
+    k_state = rkey + _options_key(opt, _MICROMET_OPTIONS + _STATE_OPTIONS) + dew_rule
     sw = _stage(cache, "state", k_state, season_wetness)
     (cat, cat_src, wet, kind, wet_src) = (sw[k] for k in _STATE_OUT)
 
@@ -361,8 +379,12 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
 
     out = {}
     land = rec(np.array(receptors, dtype=object))
-    state = _gas.CanopyState(land, cat, k_down, temp, kind, site("terrain_slope"), us_r)
     def gas_parts():
+        state = _gas.CanopyState(
+            land, cat, k_down, temp, kind, site("terrain_slope"), us_r,
+            lai=_canopy.hourly_lai(surf, receptors, block["time"].values),
+            relative_humidity=rh, cos_zenith=_canopy.cos_zenith(block["time"].values, site),
+            snow_cover=snow, hno3_rc_floor=opt.hno3_rc_floor)
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
             comps = _gas.surface_resistances(scheme, opt.gases, state)
             rbs = _gas.quasi_laminar_resistances(opt.gases, us_r, temp, pres)
@@ -371,7 +393,12 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                 flat[f"rb|{g}"] = rbs[g]
                 flat.update({f"{k}|{g}": v for k, v in comps[g].items()})
                 flat[f"vd|{g}"] = _gas.deposition_velocity(ra, rbs[g], comps[g]["rc"])
+            if opt.nh3_treatment == "bidirectional" and "NH3" in opt.gases:
+                flat.update({f"nh3bd|{k}": v for k, v in _nh3.hourly_exchange(
+                    comps["NH3"], rbs["NH3"], ra, temp, rh, receptors,
+                    [str(x) for x in surf["site"].values], opt).items()})
         return flat
+
 
     gp = _stage(cache, "gases", k_state + _options_key(opt, _GAS_OPTIONS), gas_parts)
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
@@ -380,20 +407,30 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             comp = {k.split("|")[0]: v for k, v in gp.items() if k.endswith(f"|{g}")}
             out[f"rb_{g}"] = srt(rb, "s m-1", f"quasi-laminar resistance of {g}")
             out[f"rc_{g}"] = srt(comp["rc"], "s m-1", f"surface resistance of {g} ({scheme.NAME})")
-            if opt.components:
-                for path in ("stomatal", "mesophyll", "upper_canopy", "lower_canopy", "ground"):
-                    out[f"rc_{g}_{path}"] = srt(comp[path], "s m-1",
-                                                f"{path.replace('_', ' ')} resistance of {g}")
-                out["rc_convection"] = srt(comp["convection"], "s m-1",
-                                           "in-canopy buoyant convection resistance r_dc")
-                out["rc_canopy_transfer"] = srt(comp["canopy_transfer"], "s m-1",
-                                                "in-canopy aerodynamic transfer resistance r_ac")
+            if opt.components:  # the scheme's own paths, gas-independent ones once
+                shared = getattr(scheme, "SHARED_PATHS", ())
+                names = getattr(scheme, "PATH_NAMES", {})
+                for path in scheme.PATHS:
+                    unit = "1" if path == "stomatal_blocking" else "s m-1"
+                    label = names.get(path, f"{path.replace('_', ' ')} resistance")
+                    if path in shared:
+                        out[f"rc_{path}"] = srt(comp[path], unit, label)
+                    else:
+                        out[f"rc_{g}_{path}"] = srt(comp[path], unit, f"{label} of {g}")
             if g == "HNO3":
                 out["rc_floor_used_HNO3"] = srt(comp["floor_used"] & valid, "1",
                                                 "HNO3 surface resistance raised to its floor")
             vd = comp["vd"]
             extra = {"note": NH3_NOTE} if g == "NH3" else {}
             out[f"vd_{g}"] = srt(vd, "m s-1", f"dry deposition velocity of {g}", **extra)
+        if "nh3bd|vd" in gp:
+            out["vd_NH3_bidirectional"] = srt(
+                gp["nh3bd|vd"], "m s-1", "NH3 deposition velocity of the canopy compensation "
+                "point model (net flux = C vd - nh3_emission_flux)", note=NH3_BIDIRECTIONAL_NOTE)
+            out["nh3_emission_flux"] = srt(gp["nh3bd|emission"], "mol m-2 s-1",
+                                           "NH3 emission term of the compensation point model")
+            out["nh3_compensation_point"] = srt(gp["nh3bd|chi_s"], "mol m-3",
+                                                "NH3 stomatal compensation point chi_s")
         # each distinct mode once, all of them in one call (shared surface terms)
         parts = {}
         for sp in opt.particles:
@@ -529,8 +566,13 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         # _hourly sees the whole record and does them itself
         aug = aug.assign({_PREV: met["precipitation"].astype(float).shift(time=1)})
         if opt.seasonal_category is None:
+            base = None
+            if opt.season_rule == "surface_state":
+                base = xr.DataArray(_canopy.lai_season(met_surf, met["time"].values)[0][:, 0, :],
+                                    dims=("site", "time"),
+                                    coords={"site": met["site"].values, "time": met["time"]})
             seen = _seasons.autumn_frost_seen(met["time"], surf["latitude"].astype(float),
-                                              met["temperature"].astype(float))
+                                              met["temperature"].astype(float), base=base)
             aug = aug.assign({_FROST: seen.astype(float)})
     aug = aug.reset_coords(drop=True).transpose("site", "time")
     if lazy:

@@ -15,8 +15,11 @@ A scheme is a module with
   several gases at once (sharing the work that does not depend on the gas);
   :func:`surface_resistances` falls back to one call per gas.
 
-Schemes are registered in :data:`SCHEMES`; a second one (for example Zhang et al.
-2003) is a new module plus one line here.  NH3 is deposition only: no scheme
+* optionally ``SHARED_PATHS`` (the paths that do not depend on the gas, written once),
+  ``PATH_NAMES`` (path -> long name) and ``DEW_RULE`` (the dew rule the scheme
+  publishes, see :mod:`workbench.drydep.wetness`).
+
+Schemes are registered in :data:`SCHEMES`; each is a module plus one line here.  NH3 is deposition only: no scheme
 returns a compensation point yet, and :func:`deposition_velocity` has room for one
 (``compensation`` below) without changing its callers.
 """
@@ -25,12 +28,15 @@ from __future__ import annotations
 from dataclasses import dataclass
 import importlib
 
-from ..constants import PRANDTL_AIR, VON_KARMAN
+import numpy as np
+
+from ..constants import PRANDTL_AIR, VON_KARMAN, ZERO_CELSIUS
 from ..species import diffusivity
 from ..surface.air import kinematic_viscosity
 
 #: Scheme name -> module path (imported on first use).
-SCHEMES = {"wesely1989": "workbench.drydep.wesely1989"}
+SCHEMES = {"wesely1989": "workbench.drydep.wesely1989",
+           "zhang2003": "workbench.drydep.zhang2003"}
 #: The Rb prefactor 2 of Wesely and Hicks (1977) / Hicks et al. (1987) [-].
 RB_PREFACTOR = 2.0
 #: Exponent of (Sc/Pr) in Rb [-] (Hicks et al. 1987).
@@ -63,6 +69,14 @@ class CanopyState:
         Leaf-area index (for schemes that need it). [m2 m-2]
     receptor_dim : str
         Name of the receptor dimension when the arrays are DataArrays.
+    relative_humidity : array_like or None
+        Relative humidity of the air, fraction. [1]
+    cos_zenith : array_like or None
+        Cosine of the solar zenith angle (sine of the elevation; <= 0 at night). [-]
+    snow_cover : array_like or None
+        Snow-covered fraction of the ground, 0-1 (NaN or None: no snow known). [1]
+    hno3_rc_floor : bool
+        Apply the HNO3 surface-resistance floor (:func:`nitric_acid_floor`).
     """
 
     land_use: tuple
@@ -74,6 +88,32 @@ class CanopyState:
     ustar: object = None
     lai: object = None
     receptor_dim: str = "receptor"
+    relative_humidity: object = None
+    cos_zenith: object = None
+    snow_cover: object = None
+    hno3_rc_floor: bool = True
+
+
+#: Least Rc of HNO3, max(10, -2 T[degC]) [s m-1], [s m-1 K-1]: Erisman, van Pul and
+#: Wyers (1994), Atmos. Environ. 28, 2595-2607 (from memory).  The other position in
+#: the literature takes Rc(HNO3) = 0, uptake limited by Ra + Rb only (Wesely 1989,
+#: p. 1296; Huebert and Robert 1985, J. Geophys. Res. 90, 2085; from memory).
+HNO3_RC_FLOOR = 10.0
+HNO3_RC_COLD_SLOPE = 2.0
+
+
+def nitric_acid_floor(temperature):
+    """Least Rc of HNO3, max(10, -2 Ts[degC]) [s m-1]; Erisman et al. (1994) (from memory).
+
+    Parameters
+    ----------
+    temperature : array_like
+        [K]
+
+    >>> float(nitric_acid_floor(263.15))
+    20.0
+    """
+    return np.maximum(HNO3_RC_FLOOR, HNO3_RC_COLD_SLOPE * (ZERO_CELSIUS - temperature))
 
 
 def get_scheme(name: str):

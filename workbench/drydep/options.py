@@ -98,8 +98,10 @@ class DryOptions:
     Attributes
     ----------
     gas_scheme : str
-        Surface-resistance scheme for gases; ``"wesely1989"`` (Wesely 1989 with the
-        corrections of Walmsley and Wesely 1996).
+        Surface-resistance scheme for gases: ``"wesely1989"`` (Wesely 1989 with the
+        corrections of Walmsley and Wesely 1996) or ``"zhang2003"`` (Zhang, Brook and
+        Vet 2003: LAI-dependent stomatal and cuticular paths, humidity-dependent
+        cuticle, snow).
     gases : tuple of str
         Gases to compute.
     particles : tuple of str
@@ -108,6 +110,15 @@ class DryOptions:
         ``"met"``: the met file's ``surface_wet`` where given, else the inferred rule
         (rain in this or the previous hour, or dew); ``"inferred"``: always the rule;
         ``"always_dry"`` / ``"always_wet"``: every hour dry / wet.
+    dew_rule : str
+        Saturation humidity of the dew rule at the ``"surface_temperature"`` (found from
+        the heat flux; Zhang et al. 2003) or at the ``"air_temperature"`` (a threshold
+        on relative humidity); ``"scheme"``: the rule the gas scheme publishes
+        (wesely1989: air, zhang2003: surface). docs/methods_dry.md section 8.
+    season_rule : str
+        ``"month"``: Wesely's category from the calendar month and latitude, then frost
+        and snow; ``"surface_state"``: from the leaf-area index of the site's own
+        surface (green, greening, browning, dormant), then frost and snow (section 7).
     seasonal_category : None, int or 12-tuple of int
         None: automatic (surface state, then month and latitude); an int 1-5 for
         every hour; or one category per calendar month.
@@ -135,8 +146,25 @@ class DryOptions:
         Bisection steps of the unstable u* solve.
     charnock_iterations : int
         Fixed-point steps of the Charnock z0 over water.
+    compare_schemes : bool
+        ``workbench run`` also computes the budget under every other gas scheme and
+        writes all of them to budget.csv with a ``scheme`` column (the structural
+        uncertainty of the choice of scheme; :mod:`workbench.comparison`).
+    hno3_rc_floor : bool
+        Keep Rc(HNO3) at or above max(10, -2 T[degC]) s/m (Erisman et al. 1994); False:
+        Rc(HNO3) as the scheme gives it, near 0 (Wesely 1989; Huebert and Robert 1985).
+        The literature splits on this (docs/methods_dry.md).
     nh3_treatment : str
-        ``"deposition_only"`` (the only one so far; a compensation point comes later).
+        ``"deposition_only"``; or ``"bidirectional"``: also the canopy compensation point
+        model (:mod:`workbench.drydep.nh3_bidirectional`), written as
+        ``vd_NH3_bidirectional`` and ``nh3_emission_flux`` beside the deposition-only
+        ``vd_NH3`` (which the budget still uses).
+    nh3_emission_potential : dict
+        Stomatal emission potential Gamma_s [-] replacing the class default, keyed by
+        class (``"crops"``) or by site and class (``"farm/grass"``).
+    nh3_acid_ratio : float
+        Molar ratio (2 SO2 + HNO3)/NH3 of the cuticular resistance (Massad et al.
+        2010); 1 by default (our choice). [-]
     components : bool
         Return every path of Rc per gas (memory: about seven arrays per gas).
     """
@@ -145,6 +173,8 @@ class DryOptions:
     gases: tuple = ("SO2", "HNO3", "NH3", "NO2", "O3")
     particles: tuple = ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa")
     wetness_rule: str = "met"
+    dew_rule: str = "scheme"
+    season_rule: str = "month"
     seasonal_category: object = None
     ustar_floor: float = 0.05
     ra_cap: float = 1000.0
@@ -157,14 +187,38 @@ class DryOptions:
     unstable_iterations: int = 30
     charnock_iterations: int = 8
     nh3_treatment: str = "deposition_only"
+    nh3_emission_potential: dict = field(default_factory=dict)
+    nh3_acid_ratio: float = 1.0
+    hno3_rc_floor: bool = True
+    compare_schemes: bool = False
     components: bool = True
 
     def __post_init__(self):
         if self.wetness_rule not in WETNESS_RULES:
             raise ValueError(f"unknown wetness_rule {self.wetness_rule!r}; use one of "
                              f"{WETNESS_RULES}")
-        if self.nh3_treatment != "deposition_only":
-            raise NotImplementedError("only nh3_treatment='deposition_only' exists so far")
+        from .gas import SCHEMES
+        from .seasons import SEASON_RULES
+        from .wetness import DEW_RULES
+        if self.dew_rule not in DEW_RULES:
+            raise ValueError(f"unknown dew_rule {self.dew_rule!r}; use one of {DEW_RULES}")
+        if self.season_rule not in SEASON_RULES:
+            raise ValueError(f"unknown season_rule {self.season_rule!r}; use one of "
+                             f"{SEASON_RULES}")
+        if self.gas_scheme not in SCHEMES:
+            raise ValueError(f"unknown gas_scheme {self.gas_scheme!r}; use one of "
+                             f"{tuple(SCHEMES)}")
+        if self.nh3_treatment not in ("deposition_only", "bidirectional"):
+            raise ValueError(f"unknown nh3_treatment {self.nh3_treatment!r}; use "
+                             "'deposition_only' or 'bidirectional'")
+        from ..landuse import LAND_USE
+        for key, value in self.nh3_emission_potential.items():
+            if str(key).split("/")[-1] not in LAND_USE or not float(value) >= 0:
+                raise ValueError(f"nh3_emission_potential: {key!r} = {value!r}; expected "
+                                 "'<class>' or '<site>/<class>' of our land-use classes and "
+                                 "a value >= 0")
+        if not self.nh3_acid_ratio > 0:
+            raise ValueError("nh3_acid_ratio must be > 0")
         sc = self.seasonal_category
         if sc is not None:
             cats = [sc] if isinstance(sc, int) else list(sc)

@@ -29,9 +29,16 @@ MONTH_CATEGORY_NORTH = (3, 3, 5, 5, 5, 1, 1, 1, 2, 2, 2, 3)
 HEMISPHERE_SHIFT = 6
 #: The autumn category, which turns into the late-autumn one after a frost.
 AUTUMN, LATE_AUTUMN, WINTER_SNOW, MIDSUMMER = 2, 3, 4, 1
+#: Rules of ``DryOptions.season_rule``.
+SEASON_RULES = ("month", "surface_state")
+#: LAI rule: share of the year's LAI range above which the canopy counts as lush
+#: (category 1) and below which as dormant (3); in between greening (5) or browning (2)
+#: by the sign of the LAI change (ours, documented in docs/methods_dry.md).
+LUSH_SHARE = 0.75
+DORMANT_SHARE = 0.25
 #: Codes of ``seasonal_source``.
 SOURCE = {0: "month and latitude", 1: "after first autumn frost", 2: "snow and frozen",
-          3: "set by the user"}
+          3: "set by the user", 4: "leaf-area index of the site's surface"}
 MONTHS_PER_YEAR = 12
 
 
@@ -68,7 +75,7 @@ def category_from_month(month, latitude):
     return where(tropics, float(MIDSUMMER), cat)
 
 
-def autumn_frost_seen(time, latitude, temperature):
+def autumn_frost_seen(time, latitude, temperature, base=None):
     """True from the first autumn frost of each year on, within the autumn months.
 
     Parameters
@@ -79,6 +86,9 @@ def autumn_frost_seen(time, latitude, temperature):
         Per site. [degree north]
     temperature : DataArray
         (site, time). [K]
+    base : DataArray, optional
+        The category before the frost rule (site, time), when not the month rule
+        (e.g. :func:`category_from_lai`).
 
     Returns
     -------
@@ -88,7 +98,8 @@ def autumn_frost_seen(time, latitude, temperature):
         frost hours restarts each year.
     """
     month, year = _month_and_year(time)
-    base = category_from_month(month, latitude)
+    if base is None:
+        base = category_from_month(month, latitude)
     autumn = base == AUTUMN
     frost = (temperature < ZERO_CELSIUS) & autumn
     if frost.chunks is None and year is not None:
@@ -262,3 +273,44 @@ def seasonal_category(time, latitude, temperature, snow_cover=None, override=Non
     base = category_from_month(time.dt.month, latitude) + 0.0 * temperature
     seen = autumn_frost_seen(time, latitude, temperature)
     return category_from_state(base, seen, temperature, snow_cover)
+
+
+def category_from_lai(monthly_lai, month_category):
+    """Seasonal category of each month from the canopy's leaf-area index cycle [-].
+
+    Parameters
+    ----------
+    monthly_lai : numpy.ndarray
+        LAI of each calendar month, last axis of length 12. [m2 m-2]
+    month_category : numpy.ndarray
+        :func:`category_from_month` of each month (same shape), used where the LAI
+        does not vary through the year (evergreen, bare) or is unknown.
+
+    Returns
+    -------
+    category, source : numpy.ndarray
+        1-5, and 4 (LAI rule) or 0 (month rule) of :data:`SOURCE`.
+
+    Notes
+    -----
+    Share s = (LAI - min)/(max - min) of the year's range: s >= 0.75 -> 1 (midsummer,
+    lush); s <= 0.25 -> 3 (dormant, no snow); between, 5 (spring) while the LAI
+    grows (next month above the previous) and 2 (autumn) while it falls.  Ours
+    (docs/methods_dry.md section 7), after Wesely's (1989) descriptions of the
+    categories.
+
+    >>> lai = np.array([1, 1, 1.5, 2.5, 3.5, 4, 4, 3.5, 2.5, 1.5, 1, 1.0])
+    >>> category_from_lai(lai, np.full(12, 3.0))[0].astype(int).tolist()
+    [3, 3, 3, 5, 1, 1, 1, 1, 2, 3, 3, 3]
+    """
+    lai = np.asarray(monthly_lai, dtype=float)
+    lo, hi = np.nanmin(lai, axis=-1, keepdims=True), np.nanmax(lai, axis=-1, keepdims=True)
+    span = hi - lo
+    varies = np.isfinite(span) & (span > 0)
+    share = (lai - lo) / np.where(varies, span, 1.0)
+    rising = np.roll(lai, -1, axis=-1) > np.roll(lai, 1, axis=-1)
+    cat = np.where(share >= LUSH_SHARE, float(MIDSUMMER),
+                   np.where(share <= DORMANT_SHARE, float(LATE_AUTUMN),
+                            np.where(rising, 5.0, float(AUTUMN))))
+    use = varies & np.isfinite(lai)
+    return np.where(use, cat, month_category), np.where(use, 4.0, 0.0)

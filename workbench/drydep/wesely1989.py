@@ -29,12 +29,20 @@ import xarray as xr
 from ..constants import ZERO_CELSIUS
 from ..species import get as _species
 from ..surface._array import is_xarray, where
+from .gas import HNO3_RC_COLD_SLOPE, HNO3_RC_FLOOR, nitric_acid_floor  # noqa: F401
 
 NAME = "wesely1989"
 REFERENCE = ("Wesely (1989), Atmos. Environ. 23, 1293-1304, with Walmsley and Wesely "
              "(1996), Atmos. Environ. 30, 1181-1188")
 PATHS = ("stomatal", "mesophyll", "upper_canopy", "convection", "lower_canopy",
          "canopy_transfer", "ground")
+#: Paths that do not depend on the gas (written once, not per gas).
+SHARED_PATHS = ("convection", "canopy_transfer")
+#: Long names of the paths (for the output's attributes).
+PATH_NAMES = {"convection": "in-canopy buoyant convection resistance r_dc",
+              "canopy_transfer": "in-canopy aerodynamic transfer resistance r_ac"}
+#: Wesely (1989) publishes no dew rule: dew by the humidity at air temperature.
+DEW_RULE = "air_temperature"
 
 _X = np.inf  # Wesely's 9999: the path does not exist
 #: Wesely's land-use types (Table 1 columns): 1 urban, 2 agricultural, 3 range,
@@ -135,10 +143,7 @@ RLU_SO2_RAIN = 50.0
 RLU_O3_DEW = 3000.0
 RLU_O3_RAIN = 1000.0
 WET_CUTICLE_FACTOR = 3.0
-#: HNO3: Rc >= max(10, -2 Ts[degC]) s/m; Erisman, van Pul and Wyers (1994),
-#: Atmos. Environ. 28, 2595-2607 (from memory) [s m-1], [s m-1 K-1].
-HNO3_RC_FLOOR = 10.0
-HNO3_RC_COLD_SLOPE = 2.0
+#: HNO3 floor: see :func:`workbench.drydep.gas.nitric_acid_floor` (Erisman et al. 1994).
 #: Least resistance used in reciprocals [s m-1] (numerical device).
 _R_TINY = 1e-9
 #: Stand-in for Wesely's table value 0 of rgsS (water, wetland) [s m-1]: negligible
@@ -481,17 +486,6 @@ def cold_increment(temperature):
     return COLD_SCALE * np.exp(-(temperature - ZERO_CELSIUS) - COLD_OFFSET)
 
 
-def nitric_acid_floor(temperature):
-    """Least Rc of HNO3, max(10, -2 Ts[degC]) [s m-1]; Erisman et al. (1994) (from memory).
-
-    Parameters
-    ----------
-    temperature : array_like
-        [K]
-    """
-    return np.maximum(HNO3_RC_FLOOR, HNO3_RC_COLD_SLOPE * (ZERO_CELSIUS - temperature))
-
-
 def surface_resistance(gas: str, state) -> dict:
     """Rc of a gas and its component paths (the scheme interface) [s m-1].
 
@@ -565,7 +559,7 @@ def surface_resistances(gases, state) -> dict:
         g = _recip(rs + rm) + _recip(rlu) + _recip(rdc + rcl) + _recip(rac + rgs)
         rc = _recip(g)
         floor_used = rc < 0.0  # all False, same shape
-        if gas == "HNO3":
+        if gas == "HNO3" and getattr(state, "hno3_rc_floor", True):
             floor = nitric_acid_floor(t)
             floor_used = rc < floor
             rc = where(floor_used, floor, rc)

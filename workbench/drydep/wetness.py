@@ -11,19 +11,41 @@ Inferred rule (three-valued: 1 wet, 0 dry, NaN unknown):
   Phys. 3, 2067-2082, section 2; from memory, with q in g/kg);
 * wet if either is true, dry if both are known false.
 
+The saturation humidity q_s is taken (``DryOptions.dew_rule``):
+
+* ``"surface_temperature"``: at the surface temperature, as Zhang, Brook and Vet
+  (2003) publish the rule; the surface temperature is found from the sensible heat
+  flux over the receptor by the bulk transfer relation
+  H = rho c_p (T_s - T_a)/(R_a + R_b,h) (e.g. Garratt 1992, The Atmospheric Boundary
+  Layer, ch. 3, from memory), so that a surface cooling at night below the air
+  temperature gathers dew although the air is not saturated;
+* ``"air_temperature"``: at the air temperature, i.e. a threshold on relative
+  humidity alone (dew only above about 97-99.8 % RH); the rule of this workbench
+  before the surface rule, kept as an option;
+* ``"scheme"`` (default): the rule the gas scheme publishes (its ``DEW_RULE``):
+  Zhang et al. (2003) the surface rule; Wesely (1989), which publishes none, the air
+  rule.
+
 Kinds, as Wesely (1989) treats them: 0 dry, 1 dew, 2 rain.
 """
 from __future__ import annotations
 
 import numpy as np
 
+from ..constants import CP_DRY_AIR, MOLAR_MASS_DRY_AIR, MOLAR_MASS_WATER, VON_KARMAN
 from ..surface._array import where
+from ..surface.air import saturation_vapour_pressure
 
 #: Rain in the hour above this depth makes the surface wet [mm] (common practice).
 RAIN_THRESHOLD = 0.0
 #: Dew when (q_s - q) < DEW_COEFFICIENT * u* [kg kg-1 per m s-1]; Zhang et al. (2003)
 #: (from memory).
 DEW_COEFFICIENT = 0.3e-3
+#: Dew rules of ``DryOptions.dew_rule``.
+DEW_RULES = ("scheme", "surface_temperature", "air_temperature")
+#: Prefactor of the quasi-laminar resistance for heat R_b,h = 2/(kappa u*) (Sc = Pr;
+#: Hicks et al. 1987, as for gases in :mod:`workbench.drydep.gas`) [-].
+RB_HEAT_PREFACTOR = 2.0
 #: Codes of ``wetness_source``.
 SOURCE = {0: "met file (surface_wet)", 1: "inferred: rain", 2: "inferred: dew",
           3: "inferred: dry", 4: "set by the wetness_rule option"}
@@ -109,3 +131,74 @@ def wetness(rule, rain, dew, given=None):
         wet, src = inferred, src_inf
     kind = where(wet == 1, where(rain == 1, 2.0, 1.0), where(wet == 0, 0.0, np.nan))
     return wet, kind, src
+
+
+def resolve_dew_rule(rule: str, scheme) -> str:
+    """The dew rule in force: `rule`, or the scheme's ``DEW_RULE`` when it is ``"scheme"``.
+
+    Parameters
+    ----------
+    rule : {"scheme", "surface_temperature", "air_temperature"}
+    scheme : module
+        A gas scheme (see :mod:`workbench.drydep.gas`).
+    """
+    if rule not in DEW_RULES:
+        raise ValueError(f"unknown dew_rule {rule!r}; use one of {DEW_RULES}")
+    return getattr(scheme, "DEW_RULE", "air_temperature") if rule == "scheme" else rule
+
+
+def surface_temperature(temperature, sensible_heat_flux, ra, ustar, density):
+    """Surface temperature from the sensible heat flux, T_s = T_a + H (R_a + R_b,h)/(rho c_p) [K].
+
+    Parameters
+    ----------
+    temperature : array_like
+        Air temperature. [K]
+    sensible_heat_flux : array_like
+        H over the surface, positive upward. [W m-2]
+    ra : array_like
+        Aerodynamic resistance. [s m-1]
+    ustar : array_like
+        [m s-1]
+    density : array_like
+        Air density. [kg m-3]
+
+    Returns
+    -------
+    ts : array_like
+        [K]
+
+    Notes
+    -----
+    Bulk transfer of heat through R_a and the quasi-laminar R_b,h = 2/(kappa u*)
+    (e.g. Garratt 1992, ch. 3; Hicks et al. 1987; from memory).
+
+    By hand: R_b,h = 2/(0.41 * 0.41) = 11.897 s/m; 280 - 24 (51.897)/(1.2 * 1004.67):
+
+    >>> round(float(surface_temperature(280.0, -24.0, 40.0, 0.41, 1.2)), 3)
+    278.967
+    """
+    rbh = RB_HEAT_PREFACTOR / (VON_KARMAN * ustar)
+    return temperature + sensible_heat_flux * (ra + rbh) / (density * CP_DRY_AIR)
+
+
+def surface_humidity_deficit(surface_temp, temperature, relative_humidity, pressure):
+    """q_s(T_s) - q: saturation at the surface minus the air's humidity [kg kg-1].
+
+    Parameters
+    ----------
+    surface_temp, temperature : array_like
+        Surface and air temperature. [K]
+    relative_humidity : array_like
+        Of the air, fraction. [1]
+    pressure : array_like
+        [Pa]
+
+    Notes
+    -----
+    :math:`q \\approx \\varepsilon e / p`, e = RH e_s(T_a); negative when the surface is
+    below the dew point.
+    """
+    eps = MOLAR_MASS_WATER / MOLAR_MASS_DRY_AIR
+    return eps * (saturation_vapour_pressure(surface_temp)
+                  - relative_humidity * saturation_vapour_pressure(temperature)) / pressure
