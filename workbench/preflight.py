@@ -66,14 +66,34 @@ def _periods(study, scenario):
         return (study.periods(p["resolution"], p["start"], p["end"], hy),
                 study.periods("year", p["start"], p["end"], hy))
     except (ValueError, TypeError) as exc:
-        key = "end" if p.get("end") is not None else ("start" if p.get("start") is not None
-                                                      else None)
+        key = "end" if p.get("end") is not None else "start"
+        for k in ("start", "end"):      # a value that is no date at all, first
+            try:
+                if p.get(k) is not None:
+                    np.datetime64(p[k])
+            except (ValueError, TypeError):
+                key = k
+                break
+        if p.get(key) is None:
+            raise
         raise ScenarioError(f"the reporting periods cannot be made ({exc})",
                             file=scenario.path, line=_line(scenario, "period", key),
-                            column="period" + (f".{key}" if key else ""),
-                            value=p.get(key) if key else None,
-                            expected="a start before the end, both within or around the "
-                            "span of the data (ISO dates like 2021-01-01)") from exc
+                            column=f"period.{key}", value=p.get(key),
+                            expected="an ISO date (like 2021-01-01), the end after the "
+                            "start") from exc
+
+
+def _culprit(study):
+    """(site id, key, value) of the first override that cannot be applied on its own."""
+    from .pipeline import Study
+    bare = Study(study.inputs)
+    for sid, table in study.site_overrides.items():
+        for key, value in (table or {}).items():
+            try:
+                bare.catalogue({sid: {key: value}}).surfaces()
+            except Exception:  # noqa: BLE001 - the failing override is what is looked for
+                return sid, key, value
+    return None
 
 
 def _surfaces(study, scenario):
@@ -87,10 +107,15 @@ def _surfaces(study, scenario):
     except (ValueError, TypeError, KeyError) as exc:
         if not study.site_overrides:
             raise
-        raise ScenarioError(f"the site overrides cannot be applied ({exc})",
-                            file=scenario.path, line=_line(scenario, "sites"), column="sites",
-                            expected="[sites.<id>] tables of a site in the catalogue, with "
-                            "values of the catalogue's types") from exc
+        bad = _culprit(study)
+        sid, key, value = bad if bad else (None, None, None)
+        raise ScenarioError(f"a site override cannot be applied ({type(exc).__name__}: {exc})",
+                            file=scenario.path,
+                            line=_line(scenario, f"sites.{sid}", key) if bad else None,
+                            column=f"sites.{sid}.{key}" if bad else "sites",
+                            value=value if bad else None,
+                            expected="a value of the catalogue's type and range for that key "
+                            "(see docs/scenario.md)") from exc
 
 
 def _bulk_refusal(study, scenario, catalogue):

@@ -194,6 +194,13 @@ class RunFolder:
 
     # ------------------------------------------------------------------ protocol
     def __enter__(self) -> "RunFolder":
+        try:
+            self._enter()
+        except OSError as exc:
+            raise OutputError(os_error_message(exc)) from exc
+        return self
+
+    def _enter(self):
         self._acquire()
         try:
             self._clean_leftovers()
@@ -203,7 +210,6 @@ class RunFolder:
         except BaseException:
             self._release()
             raise
-        return self
 
     def commit(self) -> Path:
         """Rename the finished sibling into place (replacing `out` whole)."""
