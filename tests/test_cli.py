@@ -339,6 +339,14 @@ BROKEN = {
     "unknown receptor": (lambda t, d: t + '\n[sites.alpha]\nreceptors = ["moon_dust"]\n',
                          "column 'sites.alpha.receptors'"),
     "bulk collector": (_bulk, "error: site 'alpha' has a bulk collector"),
+    "unknown collector": (lambda t, d: t + '\n[sites.alpha]\ncollector = "bucket"\n',
+                          "column 'sites.alpha.collector': unknown collector (did you mean 'bulk'?): got 'bucket'"),
+    "land use under the mast": (
+        lambda t, d: t.split("[dry.fixed_velocity]")[0] + '\n[sites.alpha]\nmet_land_use = "grasss"\n',
+        "column 'sites.alpha.met_land_use': unknown land-use class (did you mean 'grass'?)"),
+    "leaf area as text": (
+        lambda t, d: t.split("[dry.fixed_velocity]")[0] + '\n[sites.alpha]\nlai = "high"\n',
+        "column 'sites.alpha.lai': a site override cannot be applied"),
     "unknown gas": (lambda t, d: t.replace("SO2 = 0.5", "SOO2 = 0.5"),
                     "column 'dry.fixed_velocity.SOO2': unknown species"),
     # the verdict may change as site checks are added; check and run must agree

@@ -96,11 +96,31 @@ def _culprit(study):
     return None
 
 
+def _classes(catalogue, study, scenario):
+    """Land-use class under the mast and collector set by an override: the rules of the
+    catalogue reader (which checks the same keys in sites.toml)."""
+    from .errors import suggest
+    from .io.sites import COLLECTORS
+    from .landuse import LAND_USE
+    rules = {"met_land_use": ("unknown land-use class", list(LAND_USE)),
+             "collector": ("unknown collector", list(COLLECTORS))}
+    for site in catalogue:
+        over = study.site_overrides.get(site.id, {})
+        for key, (problem, allowed) in rules.items():
+            value = getattr(site, key)
+            if key in over and value is not None and value not in allowed:
+                raise ScenarioError(problem + suggest(value, allowed), file=scenario.path,
+                                    line=_line(scenario, f"sites.{site.id}", key),
+                                    column=f"sites.{site.id}.{key}", value=value,
+                                    expected="one of " + ", ".join(map(repr, allowed)))
+
+
 def _surfaces(study, scenario):
     """The catalogue and receptor surfaces with the site overrides applied."""
     try:
         cat = study.catalogue()
         study.surfaces()
+        _classes(cat, study, scenario)
         return cat, study.receptors()
     except WorkbenchError:
         raise
