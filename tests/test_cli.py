@@ -228,6 +228,24 @@ def test_ctrl_c_exits_130_and_leaves_nothing(tiny, monkeypatch, capsys):
     assert not out.exists() and _leftovers(out) == []
 
 
+def test_real_sigint_while_writing(tiny, tmp_path):
+    """A real SIGINT (Ctrl-C) while the files are written: exit 130, one line, no folder."""
+    signal = pytest.importorskip("signal")
+    out = tmp_path / "run"
+    code = f"""
+        import os, signal, sys
+        from workbench import writers
+        writers.OUTPUT_STEPS.insert(3, ("ctrl-c", lambda *a: os.kill(os.getpid(), signal.SIGINT)))
+        from workbench.cli import main
+        sys.exit(main(["run", r"{tiny}", "--out", r"{out}", "--quiet"]))
+    """
+    r = subprocess.run([sys.executable, "-c", textwrap.dedent(code)], capture_output=True,
+                       text=True, cwd=ROOT, env={**os.environ, "PYTHONPATH": str(ROOT)})
+    assert r.returncode == 130
+    assert r.stderr == f"error: interrupted; nothing was written into {out.resolve()}\n"
+    assert not out.exists() and _leftovers(out) == []
+
+
 def test_read_only_output_folder(tiny, tmp_path, monkeypatch, capsys):
     parent = tmp_path / "locked"
     parent.mkdir()
