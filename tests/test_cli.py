@@ -35,6 +35,8 @@ def test_refuses_non_empty_folder_without_overwrite(tiny, tmp_path, capsys):
     assert "is not empty: use --overwrite" in capsys.readouterr().err
     assert main(["run", str(tiny), "--out", str(out), "--quiet", "--overwrite"]) == 0
     assert (out / "budget.csv").exists()
+    assert not (out / "old.txt").exists()          # replaced whole: nothing old survives
+    assert sorted(p.name for p in tiny.parent.iterdir() if p.name.startswith(".")) == []
 
 
 def test_unknown_scenario_key_suggests(tiny):
@@ -151,3 +153,244 @@ def test_writes_are_atomic_and_quiet(tiny, capsys):
     umask = os.umask(0)
     os.umask(umask)
     assert all((p.stat().st_mode & 0o777) == (0o666 & ~umask) for p in out.iterdir())
+
+
+# ---------------------------------------------------------------- run folders that cannot lie
+import errno
+import os
+import subprocess
+import sys
+import textwrap
+
+from workbench import writers
+from workbench.runfolder import RunFolder
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def _leftovers(out):
+    """Anything beside `out` that a run made: its siblings."""
+    return sorted(p.name for p in out.parent.iterdir() if p.name.startswith(f".{out.name}."))
+
+
+def test_provenance_is_written_last(tiny, monkeypatch):
+    seen = []
+
+    def watch(name, writer):
+        def step(result, study, scenario, path):
+            seen.append((name, (Path(path).parent / "provenance.json").exists()))
+            return writer(result, study, scenario, path)
+        return step
+    monkeypatch.setattr(writers, "OUTPUT_STEPS", [(n, watch(n, w)) for n, w in writers.OUTPUT_STEPS])
+    out = tiny.parent / "run"
+    assert main(["run", str(tiny), "--out", str(out), "--quiet"]) == 0
+    assert seen and not any(there for _, there in seen)    # not before any other file
+    prov = json.loads((out / "provenance.json").read_text())
+    assert prov["outputs"] == [n for n, _ in seen if (out / n).exists()] + ["provenance.json"]
+    assert _leftovers(out) == []
+
+
+def _failing_step(exc):
+    def writer(result, study, scenario, path):
+        Path(path).write_text("half a file")
+        raise exc
+    return writer
+
+
+@pytest.mark.parametrize("code, hint", [
+    (errno.ENOSPC, "the disk is full: free some space or choose --out on another disk"),
+    (errno.EDQUOT, "the disk quota is used up"),
+    (errno.EIO, None),
+])
+def test_os_error_while_writing_is_one_located_message(tiny, monkeypatch, capsys, code, hint):
+    """Disk full (and other OS errors) in the middle of a run: one line naming the file,
+    nothing left that looks like a run."""
+    bad = OSError(code, os.strerror(code))
+    monkeypatch.setattr(writers, "OUTPUT_STEPS", writers.OUTPUT_STEPS[:1]
+                        + [("summary.csv", _failing_step(bad))] + writers.OUTPUT_STEPS[2:])
+    out = tiny.parent / "run"
+    assert main(["run", str(tiny), "--out", str(out), "--quiet"]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "Traceback" not in err
+    assert err.startswith(f"error: could not write {out.parent.resolve()}/.run.incomplete/"
+                          f"summary.csv: {os.strerror(code)} [{errno.errorcode[code]}]")
+    assert hint is None or hint in err
+    assert "nothing was written into the output folder" in err
+    assert not out.exists() and _leftovers(out) == []
+
+
+def test_ctrl_c_exits_130_and_leaves_nothing(tiny, monkeypatch, capsys):
+    monkeypatch.setattr(writers, "OUTPUT_STEPS", writers.OUTPUT_STEPS[:3]
+                        + [("samples.csv", _failing_step(KeyboardInterrupt()))])
+    out = tiny.parent / "run"
+    assert main(["run", str(tiny), "--out", str(out), "--quiet"]) == 130
+    assert capsys.readouterr().err == f"error: interrupted; nothing was written into {out.resolve()}\n"
+    assert not out.exists() and _leftovers(out) == []
+
+
+def test_real_sigint_while_writing(tiny, tmp_path):
+    """A real SIGINT (Ctrl-C) while the files are written: exit 130, one line, no folder."""
+    signal = pytest.importorskip("signal")
+    out = tmp_path / "run"
+    code = f"""
+        import os, signal, sys
+        from workbench import writers
+        writers.OUTPUT_STEPS.insert(3, ("ctrl-c", lambda *a: os.kill(os.getpid(), signal.SIGINT)))
+        from workbench.cli import main
+        sys.exit(main(["run", r"{tiny}", "--out", r"{out}", "--quiet"]))
+    """
+    r = subprocess.run([sys.executable, "-c", textwrap.dedent(code)], capture_output=True,
+                       text=True, cwd=ROOT, env={**os.environ, "PYTHONPATH": str(ROOT)})
+    assert r.returncode == 130
+    assert r.stderr == f"error: interrupted; nothing was written into {out.resolve()}\n"
+    assert not out.exists() and _leftovers(out) == []
+
+
+def test_read_only_output_folder(tiny, tmp_path, monkeypatch, capsys):
+    parent = tmp_path / "locked"
+    parent.mkdir()
+    out = parent / "run"
+    if os.geteuid() == 0:   # root writes anywhere: make the folder's creation fail as it would
+        real = os.mkdir
+
+        def mkdir(path, *a, **k):
+            if Path(path).parent == parent:
+                raise OSError(errno.EROFS, os.strerror(errno.EROFS), str(path))
+            return real(path, *a, **k)
+        monkeypatch.setattr(os, "mkdir", mkdir)
+        lock_open = os.open
+        monkeypatch.setattr(os, "open", lambda p, *a, **k: (_ for _ in ()).throw(
+            OSError(errno.EROFS, os.strerror(errno.EROFS), str(p))) if Path(p).parent == parent
+            else lock_open(p, *a, **k))
+    else:
+        parent.chmod(0o555)
+    try:
+        assert main(["run", str(tiny), "--out", str(out), "--quiet"]) == 2
+    finally:
+        parent.chmod(0o755)
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "Traceback" not in err
+    assert err.startswith(f"error: could not write {parent.resolve()}/.run.")
+    assert ("choose --out on a writable disk" in err
+            or "choose a folder you can write to" in err)
+    assert list(parent.iterdir()) == []
+
+
+def test_file_size_limit_is_one_message(tiny, tmp_path):
+    """RLIMIT_FSIZE below the size of budget.nc: the write fails with EFBIG (Python ignores
+    SIGXFSZ), reported on one line; no folder is left."""
+    resource = pytest.importorskip("resource")
+    out = tmp_path / "run"
+    code = f"""
+        import resource, sys
+        resource.setrlimit(resource.RLIMIT_FSIZE, (20_000, 20_000))
+        from workbench.cli import main
+        sys.exit(main(["run", r"{tiny}", "--out", r"{out}", "--quiet"]))
+    """
+    r = subprocess.run([sys.executable, "-c", textwrap.dedent(code)], capture_output=True,
+                       text=True, cwd=ROOT, env={**os.environ, "PYTHONPATH": str(ROOT)})
+    assert r.returncode == 2, r.stderr
+    assert r.stderr.count("\n") == 1 and "Traceback" not in r.stderr
+    assert "[EFBIG]; a file-size limit stopped the write (see `ulimit -f`)" in r.stderr
+    assert not out.exists() and _leftovers(out) == []
+
+
+def test_second_concurrent_run_is_refused(tiny, capsys):
+    out = tiny.parent / "run"
+    with RunFolder(out, {}, False, say=print):             # another run holds the folder
+        assert main(["run", str(tiny), "--out", str(out), "--quiet"]) == 2
+        err = capsys.readouterr().err
+        assert err.startswith(f"error: another run is writing into {out.resolve()} "
+                              f"(process {os.getpid()} on ")
+        assert err.rstrip().endswith("wait for it to end, or choose another --out")
+    assert main(["run", str(tiny), "--out", str(out), "--quiet"]) == 0   # free again
+    assert _leftovers(out) == []
+
+
+def test_killed_run_leaves_only_a_marked_sibling_that_the_next_run_removes(tiny, capsys):
+    """SIGKILL in the middle of writing: no folder named like the output; the leftover is
+    named `.<name>.incomplete` and removed, with a note, by the next run."""
+    signal = pytest.importorskip("signal")
+    out = tiny.parent / "run"
+    code = f"""
+        import os, signal, sys
+        from workbench import writers
+        def die(*a):
+            os.kill(os.getpid(), signal.SIGKILL)
+        writers.OUTPUT_STEPS.insert(2, ("die", die))
+        from workbench.cli import main
+        sys.exit(main(["run", r"{tiny}", "--out", r"{out}", "--quiet"]))
+    """
+    r = subprocess.run([sys.executable, "-c", textwrap.dedent(code)], capture_output=True,
+                       text=True, cwd=ROOT, env={**os.environ, "PYTHONPATH": str(ROOT)})
+    assert r.returncode == -signal.SIGKILL
+    assert not out.exists()
+    assert ".run.incomplete" in _leftovers(out)
+    assert sorted(p.name for p in (out.parent / ".run.incomplete").iterdir()) == [
+        "budget.csv", "summary.csv"]
+    assert main(["run", str(tiny), "--out", str(out)]) == 0
+    err = capsys.readouterr().err
+    assert f"note: removed {out.resolve().parent}/.run.incomplete, the unfinished folder of an " \
+           "interrupted run" in err
+    assert _leftovers(out) == [] and (out / "provenance.json").exists()
+
+
+# ---------------------------------------------------------------- check fails where run fails
+def _bulk(t, d):
+    (d / "sites.toml").write_text((d / "sites.toml").read_text() + 'collector = "bulk"\n')
+    air = (d / "air.csv").read_text().splitlines()
+    air[1] += ",pSO4 [ug/m3]"
+    air[2:] = [ln + ",1.0" for ln in air[2:]]
+    (d / "air.csv").write_text("\n".join(air) + "\n")
+    return t.replace("SO2 = 0.5", "SO2 = 0.5\npSO4 = 0.2")
+
+
+SPAN = 'start = "2021-02-01"\nend = "2021-03-01"'
+BROKEN = {
+    "valid": (lambda t, d: t, None),
+    "end before start": (lambda t, d: t.replace(SPAN, 'start = "2021-03-01"\nend = "2021-01-01"'),
+                         "column 'period.end': the reporting periods cannot be made"),
+    "impossible date": (lambda t, d: t.replace('start = "2021-02-01"', 'start = "2021-13-45"'),
+                        "column 'period.start': the reporting periods cannot be made"),
+    "override as text": (lambda t, d: t + '\n[sites.alpha]\ncanopy_height_m = "tall"\n',
+                         "column 'sites.alpha.canopy_height_m'"),
+    "unknown receptor": (lambda t, d: t + '\n[sites.alpha]\nreceptors = ["moon_dust"]\n',
+                         "column 'sites.alpha.receptors'"),
+    "bulk collector": (_bulk, "error: site 'alpha' has a bulk collector"),
+    "unknown collector": (lambda t, d: t + '\n[sites.alpha]\ncollector = "bucket"\n',
+                          "column 'sites.alpha.collector': unknown collector (did you mean 'bulk'?): got 'bucket'"),
+    "land use under the mast": (
+        lambda t, d: t.split("[dry.fixed_velocity]")[0] + '\n[sites.alpha]\nmet_land_use = "grasss"\n',
+        "column 'sites.alpha.met_land_use': unknown land-use class (did you mean 'grass'?)"),
+    "leaf area as text": (
+        lambda t, d: t.split("[dry.fixed_velocity]")[0] + '\n[sites.alpha]\nlai = "high"\n',
+        "column 'sites.alpha.lai': a site override cannot be applied"),
+    "unknown gas": (lambda t, d: t.replace("SO2 = 0.5", "SOO2 = 0.5"),
+                    "column 'dry.fixed_velocity.SOO2': unknown species"),
+    # the verdict may change as site checks are added; check and run must agree
+    "misspelt site id": (lambda t, d: t + '\n[sites.alhpa]\ncanopy_height_m = 0.2\n', "?"),
+    "zero roughness": (lambda t, d: t + '\n[sites.alpha]\nroughness_length_m = 0.0\n', "?"),
+}
+
+
+@pytest.mark.parametrize("case", list(BROKEN))
+def test_check_fails_exactly_when_run_fails(case, tmp_path, capsys):
+    sc = tb._write(tmp_path)
+    change, message = BROKEN[case]
+    sc.write_text(change(sc.read_text(), tmp_path))
+    rc_check = main(["check", str(sc), "--quiet"])
+    check_err = capsys.readouterr().err
+    out = tmp_path / "out"
+    rc_run = main(["run", str(sc), "--out", str(out), "--quiet"])
+    run_err = capsys.readouterr().err
+    assert rc_check == rc_run, (check_err, run_err)
+    if message is None:
+        assert rc_run == 0 and (out / "provenance.json").exists()
+    if rc_run:
+        assert check_err == run_err                      # the same located message
+        assert check_err.startswith("error: ") and check_err.count("\n") == 1
+        assert message == "?" or message in check_err
+        assert str(sc.resolve()) in check_err or "site 'alpha'" in check_err
+        assert not out.exists() and _leftovers(out) == []
+    else:
+        assert message in (None, "?")

@@ -1,4 +1,11 @@
-"""Command line: ``workbench run | check | demo``."""
+"""Command line: ``workbench run | check | demo`` (also ``python -m workbench``).
+
+Every failure ends in one line ``error: ...`` on stderr that says where and what to do,
+with a non-zero exit code (2; 130 after Ctrl-C), never a traceback: the workbench's own
+errors, OS errors while reading or writing (disk full, read-only folder, file-size
+limit) and interrupts.  A run folder is written whole or not at all
+(:mod:`workbench.runfolder`).
+"""
 from __future__ import annotations
 
 import argparse
@@ -8,7 +15,22 @@ from pathlib import Path
 from . import __version__
 from .errors import WorkbenchError
 
-DEMO_SCENARIO = Path(__file__).resolve().parent.parent / "demo_data" / "scenario.toml"
+
+def demo_folder() -> Path:
+    """The folder of the bundled demo scenario.
+
+    Inside an installed package it is ``workbench/demo_data`` (shipped from the
+    repository's top-level ``demo_data/``); in a source tree or an editable install it
+    is that top-level folder itself.
+    """
+    here = Path(__file__).resolve().parent
+    for folder in (here / "demo_data", here.parent / "demo_data"):
+        if (folder / "scenario.toml").is_file():
+            return folder
+    return here / "demo_data"
+
+
+DEMO_SCENARIO = demo_folder() / "scenario.toml"
 
 
 def _progress(quiet):
@@ -18,44 +40,54 @@ def _progress(quiet):
 
 
 def cmd_check(args) -> int:
-    from .scenario import load_scenario, load_scenario_inputs
-    sc = load_scenario(args.scenario)
-    inp = load_scenario_inputs(sc, progress=_progress(args.quiet))
-    print(f"scenario: {sc.path}")
-    print(inp.describe())
+    from .preflight import prepare
+    prep = prepare(args.scenario, progress=_progress(args.quiet))
+    print(f"scenario: {prep.scenario.path}")
+    print(prep.study.inputs.describe())
+    print()
+    print(prep.describe())
     return 0
 
 
 def run_scenario(scenario_path, out, overwrite=False, quiet=False):
     """Load a scenario, compute its budget and write the run folder.
 
+    The output folder is checked and locked before anything is computed (a second run
+    into it is refused at once); the files go into a temporary sibling that is renamed
+    into place at the end, ``provenance.json`` last.
+
     Returns
     -------
     (written, result, study)
     """
     from tqdm.auto import tqdm
-    from .pipeline import Study
+    from .preflight import prepare
     from .scenario import load_scenario
-    from .writers import prepare_out_dir, write_run
+    from .writers import RunFolder, write_run
     sc = load_scenario(scenario_path)
-    prepare_out_dir(out, {"scenario": sc.path, **sc.input_paths()}, overwrite)
-    steps = ["sites", "precipitation", "air", "met", "budget", "outputs"]
-    bar = tqdm(total=len(steps), desc="workbench", disable=quiet, delay=1.0, file=sys.stderr)
+    say = (lambda text: None) if quiet else (lambda text: print(text, file=sys.stderr))
+    with RunFolder(out, {"scenario": sc.path, **sc.input_paths()}, overwrite, say=say) as folder:
+        steps = ["sites", "precipitation", "air", "met", "budget", "outputs"]
+        bar = tqdm(total=len(steps), desc="workbench", disable=quiet, delay=1.0,
+                   file=sys.stderr)
 
-    def step(text):
-        bar.set_postfix_str(text)
-        bar.update(1)
+        def step(text):
+            bar.set_postfix_str(text)
+            bar.update(1)
 
-    study = Study.from_scenario(sc, progress=step)
-    p = sc.data["period"]
-    from .comparison import run as run_compared
-    result = run_compared(study, sc.options["wet"], sc.options["dry"], sc.options["budget"],
-                          sc.fixed_velocity, p["resolution"], p["start"], p["end"])
-    step("writing")
-    written = write_run(result, study, sc, out, overwrite=True,
-                        progress=lambda text: bar.set_postfix_str(text))
-    bar.update(bar.total - bar.n)
-    bar.close()
+        try:
+            prep = prepare(sc, progress=step)
+            study, o = prep.study, sc.options
+            p = sc.data["period"]
+            from .comparison import run as run_compared
+            result = run_compared(study, o["wet"], o["dry"], o["budget"], sc.fixed_velocity,
+                                  p["resolution"], p["start"], p["end"])
+            step("writing")
+            written = write_run(result, study, sc, out, progress=bar.set_postfix_str,
+                                folder=folder)
+            bar.update(bar.total - bar.n)
+        finally:
+            bar.close()
     return written, result, study
 
 
@@ -69,7 +101,8 @@ def cmd_run(args) -> int:
 
 def cmd_demo(args) -> int:
     if not DEMO_SCENARIO.exists():
-        print(f"error: the demo scenario is missing at {DEMO_SCENARIO}", file=sys.stderr)
+        print(f"error: the demo scenario is missing at {DEMO_SCENARIO}: reinstall the "
+              "package (python -m pip install deposition-workbench)", file=sys.stderr)
         return 2
     import datetime as dt
     import pandas as pd
@@ -100,14 +133,16 @@ def build_parser() -> argparse.ArgumentParser:
                                 "budgets of sulfur and nitrogen.")
     p.add_argument("--version", action="version", version=f"%(prog)s {__version__}")
     sub = p.add_subparsers(dest="command", required=True)
-    c = sub.add_parser("check", help="validate a scenario's inputs and print the ledger")
+    c = sub.add_parser("check", help="validate everything a run would use, without computing")
     c.add_argument("scenario", type=Path)
     c.add_argument("--quiet", action="store_true", help="no progress messages")
     c.set_defaults(func=cmd_check)
     r = sub.add_parser("run", help="compute a scenario's budget and write the run folder")
     r.add_argument("scenario", type=Path)
-    r.add_argument("--out", type=Path, required=True, help="output folder (created if needed)")
-    r.add_argument("--overwrite", action="store_true", help="replace files in a non-empty folder")
+    r.add_argument("--out", type=Path, required=True, help="output folder (created; written "
+                   "whole or not at all)")
+    r.add_argument("--overwrite", action="store_true",
+                   help="replace a non-empty output folder whole")
     r.add_argument("--quiet", action="store_true", help="no progress bar")
     r.set_defaults(func=cmd_run)
     d = sub.add_parser("demo", help="run the bundled demo scenario into a fresh folder")
@@ -119,12 +154,22 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv=None) -> int:
+    """Run the command line; returns the exit code (0 success, 2 error, 130 Ctrl-C)."""
     args = build_parser().parse_args(argv)
     try:
         return args.func(args)
     except WorkbenchError as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 2
+    except OSError as exc:  # reading or writing outside the run folder's own messages
+        from .runfolder import os_error_message
+        print(f"error: {os_error_message(exc, what='read or write')}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        where = getattr(args, "out", None)
+        print("error: interrupted" + (f"; nothing was written into {Path(where).resolve()}"
+                                      if where else ""), file=sys.stderr)
+        return 130
 
 
 if __name__ == "__main__":  # pragma: no cover

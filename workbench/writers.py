@@ -1,4 +1,4 @@
-"""Writers of a run folder: every file written atomically, never over an input.
+"""Writers of a run folder: written whole or not at all, never beside or over an input.
 
 ``budget.csv``, ``summary.csv``, ``budget.nc``, ``samples.csv``, ``velocities.nc``,
 ``report.html`` and ``provenance.json`` (see docs/scenario.md).
@@ -16,12 +16,10 @@ import numpy as np
 import xarray as xr
 
 from . import __version__
-from .errors import WorkbenchError
+from .runfolder import OutputError, RunFolder, check_out_dir, os_error_message
 from .tables import BUDGET_COLUMNS
 
-
-class OutputError(WorkbenchError):
-    """The output folder cannot be used (not empty, holds an input, ...)."""
+__all__ = ["OUTPUT_STEPS", "OutputError", "RunFolder", "atomic_write", "write_run"]
 
 
 def atomic_write(path: Path, writer) -> Path:
@@ -57,27 +55,8 @@ def sha256(path) -> str:
 
 
 def prepare_out_dir(out: Path, inputs: dict, overwrite: bool = False) -> Path:
-    """Create or check the output folder.
-
-    Raises
-    ------
-    OutputError
-        When the folder holds an input file, or is not empty and `overwrite` is False.
-    """
-    out = Path(out).resolve()
-    for role, p in inputs.items():
-        p = Path(p).resolve()
-        if p.parent == out or out in p.parents:
-            raise OutputError(f"output folder {out} holds the {role} input {p.name}: "
-                              "choose another folder (outputs never go beside or over inputs)")
-    if out.exists():
-        if not out.is_dir():
-            raise OutputError(f"output path {out} exists and is not a folder")
-        if any(out.iterdir()) and not overwrite:
-            raise OutputError(f"output folder {out} is not empty: use --overwrite to replace "
-                              "its files, or choose a new folder")
-    out.mkdir(parents=True, exist_ok=True)
-    return out
+    """Check that `out` can take a run (see :func:`.runfolder.check_out_dir`)."""
+    return check_out_dir(out, inputs, overwrite)
 
 
 def _netcdf_ready(ds: xr.Dataset) -> xr.Dataset:
@@ -105,7 +84,7 @@ def write_netcdf(ds: xr.Dataset, path: Path, title: str):
                      "institution": "deposition workbench user",
                      "source": f"deposition workbench {__version__}",
                      "history": f"{_dt.datetime.now(_dt.timezone.utc):%Y-%m-%dT%H:%M:%SZ} created"})
-    atomic_write(path, lambda tmp: ds.to_netcdf(tmp, engine="scipy", format="NETCDF3_64BIT"))
+    ds.to_netcdf(path, engine="scipy", format="NETCDF3_64BIT")
 
 
 def budget_dataset(result) -> xr.Dataset:
@@ -173,52 +152,132 @@ def provenance(scenario, inputs_paths: dict, started: _dt.datetime) -> dict:
     }
 
 
-def write_run(result, study, scenario, out, overwrite=False, progress=None) -> dict:
-    """Write every output of a run into `out`.
+def summary_table(result) -> "pd.DataFrame":
+    """The rows of summary.csv (shares, oxidized / reduced N, potential acidity, ...)."""
+    return result.derived.to_dataframe().reset_index()
+
+
+def _csv(frame, path, dates=False):
+    frame.to_csv(path, index=False, float_format="%.10g",
+                 **({"date_format": "%Y-%m-%dT%H:%M"} if dates else {}))
+
+
+def write_budget_csv(result, study, scenario, path):
+    table = result.table
+    cols = list(BUDGET_COLUMNS) + [c for c in table.columns if c not in BUDGET_COLUMNS]
+    _csv(table[cols], path, dates=True)
+    return path
+
+
+def write_summary_csv(result, study, scenario, path):
+    _csv(summary_table(result), path)
+    return path
+
+
+def write_budget_nc(result, study, scenario, path):
+    write_netcdf(budget_dataset(result), path, "site budgets of S and N deposition")
+    return path
+
+
+def write_samples_csv(result, study, scenario, path):
+    if result.screened is None:
+        return None
+    from .wet import samples_table
+    _csv(samples_table(result.screened), path, dates=True)
+    return path
+
+
+def write_velocities_nc(result, study, scenario, path):
+    if result.velocities is None:
+        return None
+    write_netcdf(velocities_dataset(result.velocities), path, "hourly aerodynamic, "
+                 "quasi-laminar and surface resistances and deposition velocities")
+    return path
+
+
+def write_report_html(result, study, scenario, path):
+    from .report import render_report
+    Path(path).write_text(render_report(result, study, scenario), encoding="utf-8")
+    return path
+
+
+#: The files of a run folder, in the order they are written: (file name, writer).  A
+#: writer is called as ``writer(result, study, scenario, path)`` and returns the path it
+#: wrote, or None when it has nothing to write.  ``provenance.json`` comes after all of
+#: them, as the mark of a complete run.  Add an output by appending a step.
+OUTPUT_STEPS = [
+    ("budget.csv", write_budget_csv),
+    ("summary.csv", write_summary_csv),
+    ("budget.nc", write_budget_nc),
+    ("samples.csv", write_samples_csv),
+    ("velocities.nc", write_velocities_nc),
+    ("report.html", write_report_html),
+]
+
+
+def input_paths(study, scenario) -> dict:
+    """role -> path of every input of a run (the scenario file first)."""
+    paths = dict(study.inputs.paths)
+    if scenario is not None and scenario.path is not None:
+        paths = {"scenario": scenario.path, **paths}
+    return paths
+
+
+def write_files(result, study, scenario, folder: Path, progress=None, started=None) -> dict:
+    """Write every output into `folder` (the temporary sibling), provenance.json last.
+
+    An OS error (disk full, file-size limit, permissions) becomes one
+    :class:`OutputError` naming the file and what to do.
 
     Returns
     -------
     dict
-        name -> Path of each file written.
+        name -> file name, in the order written.
+    """
+    started = started or _dt.datetime.now(_dt.timezone.utc)
+    say = progress or (lambda text: None)
+    folder = Path(folder)
+    names = []
+    for name, writer in OUTPUT_STEPS + [("provenance.json", None)]:
+        say(name)
+        path = folder / name
+        try:
+            if writer is None:
+                prov = provenance(scenario, input_paths(study, scenario), started)
+                prov["outputs"] = names + ["provenance.json"]
+                path.write_text(json.dumps(prov, indent=2, default=str))
+                got = path
+            else:
+                got = writer(result, study, scenario, path)
+        except OSError as exc:
+            raise OutputError(os_error_message(exc, path) + "; nothing was written into the "
+                              "output folder") from exc
+        if got is not None:
+            names.append(name)
+    return names
+
+
+def write_run(result, study, scenario, out, overwrite=False, progress=None, folder=None) -> dict:
+    """Write every output of a run into `out`, whole or not at all (see :mod:`.runfolder`).
+
+    Parameters
+    ----------
+    folder : RunFolder, optional
+        An entered run folder for `out` (the command line takes it before computing, so
+        that a second run is refused at once); by default one is taken here.
+
+    Returns
+    -------
+    dict
+        name -> Path of each file written (in `out`).
     """
     started = _dt.datetime.now(_dt.timezone.utc)
-    say = progress or (lambda text: None)
-    paths = dict(study.inputs.paths)
-    if scenario is not None and scenario.path is not None:
-        paths = {"scenario": scenario.path, **paths}
-    out = prepare_out_dir(out, paths, overwrite)
-    written = {}
-    say("budget.csv")
-    table = result.table
-    cols = list(BUDGET_COLUMNS) + [c for c in table.columns if c not in BUDGET_COLUMNS]
-    written["budget.csv"] = atomic_write(out / "budget.csv", lambda t: table[cols].to_csv(
-        t, index=False, float_format="%.10g", date_format="%Y-%m-%dT%H:%M"))
-    say("summary.csv")
-    summ = result.derived.to_dataframe().reset_index()
-    written["summary.csv"] = atomic_write(out / "summary.csv", lambda t: summ.to_csv(
-        t, index=False, float_format="%.10g"))
-    say("budget.nc")
-    write_netcdf(budget_dataset(result), out / "budget.nc", "site budgets of S and N deposition")
-    written["budget.nc"] = out / "budget.nc"
-    if result.screened is not None:
-        say("samples.csv")
-        from .wet import samples_table
-        st = samples_table(result.screened)
-        written["samples.csv"] = atomic_write(out / "samples.csv", lambda t: st.to_csv(
-            t, index=False, float_format="%.10g", date_format="%Y-%m-%dT%H:%M"))
-    if result.velocities is not None:
-        say("velocities.nc")
-        write_netcdf(velocities_dataset(result.velocities), out / "velocities.nc",
-                     "hourly aerodynamic, quasi-laminar and surface resistances and deposition velocities")
-        written["velocities.nc"] = out / "velocities.nc"
-    say("report.html")
-    from .report import render_report
-    html = render_report(result, study, scenario)
-    written["report.html"] = atomic_write(out / "report.html",
-                                          lambda t: t.write_text(html, encoding="utf-8"))
-    say("provenance.json")
-    prov = provenance(scenario, paths, started)
-    prov["outputs"] = sorted(written) + ["provenance.json"]
-    written["provenance.json"] = atomic_write(
-        out / "provenance.json", lambda t: t.write_text(json.dumps(prov, indent=2, default=str)))
-    return written
+    if folder is None:
+        with RunFolder(out, input_paths(study, scenario), overwrite) as f:
+            return write_run(result, study, scenario, out, progress=progress, folder=f)
+    names = write_files(result, study, scenario, folder.path, progress, started)
+    try:
+        final = folder.commit()
+    except OSError as exc:
+        raise OutputError(os_error_message(exc, folder.out, "rename into place")) from exc
+    return {name: final / name for name in names}

@@ -23,11 +23,11 @@ function does them itself.  Steps:
 """
 from __future__ import annotations
 
-import dask.array as dsa
 import numpy as np
 import xarray as xr
 
 from .. import landuse
+from ..optional import require
 from ..constants import CP_DRY_AIR, VON_KARMAN
 from ..landuse import LAND_USE
 from ..memo import recent
@@ -496,6 +496,7 @@ def _template(aug, surf, opt, receptors, met_surf=None):
     """An empty lazy Dataset shaped like the output of :func:`_hourly` on `aug`."""
     probe = _hourly(aug.isel(time=slice(0, 1)).compute(), surf, opt, receptors,
                     met_surf=met_surf)
+    dsa = require("dask.array")  # only here: `aug` is already dask-backed
     chunks = dict(aug.chunks)
     data = {}
     for name, v in probe.data_vars.items():

@@ -1,0 +1,185 @@
+"""Everything a run builds before it computes, shared by ``workbench check`` and ``run``.
+
+:func:`prepare` reads the scenario and its inputs, builds the study with the site
+overrides applied (catalogue, receptor surfaces), the reporting periods, and applies the
+refusals the budget would make later, so that ``check`` fails exactly where ``run``
+would, with the same located message, and ``run`` fails before its long computation.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .errors import ScenarioError, WorkbenchError
+
+#: Particle species a bulk collector's "wet" deposition already holds in part.
+BULK_PARTICLES = ("pSO4", "pNO3", "pNH4")
+
+
+class PreflightError(WorkbenchError):
+    """A scenario a run would refuse (found before computing)."""
+
+
+@dataclass
+class Prepared:
+    """What :func:`prepare` built: the scenario, the study, the periods."""
+
+    scenario: object
+    study: object
+    periods: object
+    years: object
+    receptors: list = field(default_factory=list)
+
+    def describe(self) -> str:
+        """What a run would compute, in a few lines."""
+        sc = self.scenario
+        p = self.periods
+        res = sc.data["period"]["resolution"]
+        lines = [f"periods: {len(p)} {res} periods from {p['start'].iloc[0]} to "
+                 f"{p['end'].iloc[-1]} ({len(self.years)} years)",
+                 f"receptor surfaces: {', '.join(map(str, self.receptors)) or 'none'}"]
+        fixed = sc.fixed_velocity
+        if fixed:
+            lines.append("fixed velocities [cm/s]: " + ", ".join(f"{k} {v:g}" for k, v in
+                                                              fixed.items()))
+        lines.append("everything a run uses was read and checked: the scenario can be run")
+        return "\n".join(lines)
+
+
+def _line(scenario, section, key=None):
+    from .scenario import _line_of
+    if scenario.path is None:
+        return None
+    try:
+        text = scenario.path.read_text(encoding="utf-8-sig", errors="replace")
+    except OSError:
+        return None
+    return _line_of(text.splitlines(), section, key)
+
+
+def _periods(study, scenario):
+    """The reporting periods and the years, a bad span as a located scenario error."""
+    p = scenario.data["period"]
+    hy = scenario.options["wet"].hydro_start_month
+    try:
+        return (study.periods(p["resolution"], p["start"], p["end"], hy),
+                study.periods("year", p["start"], p["end"], hy))
+    except (ValueError, TypeError) as exc:
+        key = "end" if p.get("end") is not None else "start"
+        for k in ("start", "end"):      # a value that is no date at all, first
+            try:
+                if p.get(k) is not None:
+                    np.datetime64(p[k])
+            except (ValueError, TypeError):
+                key = k
+                break
+        if p.get(key) is None:
+            raise
+        raise ScenarioError(f"the reporting periods cannot be made ({exc})",
+                            file=scenario.path, line=_line(scenario, "period", key),
+                            column=f"period.{key}", value=p.get(key),
+                            expected="an ISO date (like 2021-01-01), the end after the "
+                            "start") from exc
+
+
+def _culprit(study):
+    """(site id, key, value) of the first override that cannot be applied on its own."""
+    from .pipeline import Study
+    bare = Study(study.inputs)
+    for sid, table in study.site_overrides.items():
+        for key, value in (table or {}).items():
+            try:
+                bare.catalogue({sid: {key: value}}).surfaces()
+            except Exception:  # noqa: BLE001 - the failing override is what is looked for
+                return sid, key, value
+    return None
+
+
+def _classes(catalogue, study, scenario):
+    """Land-use class under the mast and collector set by an override: the rules of the
+    catalogue reader (which checks the same keys in sites.toml)."""
+    from .errors import suggest
+    from .io.sites import COLLECTORS
+    from .landuse import LAND_USE
+    rules = {"met_land_use": ("unknown land-use class", list(LAND_USE)),
+             "collector": ("unknown collector", list(COLLECTORS))}
+    for site in catalogue:
+        over = study.site_overrides.get(site.id, {})
+        for key, (problem, allowed) in rules.items():
+            value = getattr(site, key)
+            if key in over and value is not None and value not in allowed:
+                raise ScenarioError(problem + suggest(value, allowed), file=scenario.path,
+                                    line=_line(scenario, f"sites.{site.id}", key),
+                                    column=f"sites.{site.id}.{key}", value=value,
+                                    expected="one of " + ", ".join(map(repr, allowed)))
+
+
+def _surfaces(study, scenario):
+    """The catalogue and receptor surfaces with the site overrides applied."""
+    try:
+        cat = study.catalogue()
+        study.surfaces()
+        _classes(cat, study, scenario)
+        return cat, study.receptors()
+    except WorkbenchError:
+        raise
+    except (ValueError, TypeError, KeyError) as exc:
+        if not study.site_overrides:
+            raise
+        bad = _culprit(study)
+        sid, key, value = bad if bad else (None, None, None)
+        raise ScenarioError(f"a site override cannot be applied ({type(exc).__name__}: {exc})",
+                            file=scenario.path,
+                            line=_line(scenario, f"sites.{sid}", key) if bad else None,
+                            column=f"sites.{sid}.{key}" if bad else "sites",
+                            value=value if bad else None,
+                            expected="a value of the catalogue's type and range for that key "
+                            "(see docs/scenario.md)") from exc
+
+
+def _bulk_refusal(study, scenario, catalogue):
+    """The budget's refusal of particle dry deposition at a bulk collector (see
+    :class:`workbench.budget.BudgetOptions`, ``bulk_correction``), found beforehand."""
+    inp = study.inputs
+    if (scenario.options["budget"].bulk_correction != "none" or inp.air is None
+            or inp.met is None):
+        return
+    bulk = [s.id for s in catalogue if s.collector == "bulk"]
+    site = inp.air["site"].values.astype(str)
+    for sp in BULK_PARTICLES:
+        if sp not in inp.air:
+            continue
+        measured = set(site[np.isfinite(inp.air[sp].values)])
+        bad = [s for s in bulk if s in measured]
+        if bad:
+            raise PreflightError(
+                f"site {bad[0]!r} has a bulk collector: its 'wet' deposition already "
+                f"holds some dry deposition, so particle dry deposition ({sp}) is not "
+                "added; name a correction in [budget] bulk_correction "
+                "('exclude_particles' or 'scale_wet', see docs/budget.md)")
+
+
+def prepare(scenario, progress=None) -> Prepared:
+    """Read and check everything a run of `scenario` uses, short of computing.
+
+    Parameters
+    ----------
+    scenario : Scenario or path
+        A validated scenario, or the path of a scenario file.
+    progress : callable, optional
+        Called with a short text before each input file.
+
+    Raises
+    ------
+    WorkbenchError
+        Located: a scenario error, an input error, or a refusal of the budget.
+    """
+    from .pipeline import Study
+    from .scenario import Scenario, load_scenario
+    sc = scenario if isinstance(scenario, Scenario) else load_scenario(scenario)
+    study = Study.from_scenario(sc, progress=progress)
+    catalogue, receptors = _surfaces(study, sc)
+    periods, years = _periods(study, sc)
+    _bulk_refusal(study, sc, catalogue)
+    return Prepared(sc, study, periods, years, receptors)
