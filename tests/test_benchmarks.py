@@ -133,3 +133,20 @@ def test_engine_vs_reference_benchmark_runs(tmp_path, capsys):
     assert all(r["engine_over_scalar"] > 0 and r["engine_over_numba"] > 0 for r in out["rows"])
     assert "engine/numba" in capsys.readouterr().out
     assert (tmp_path / "r.json").exists()
+
+
+def test_network_generator_and_guard(tmp_path, capsys):
+    """Generated inputs carry N invented sites; sizes above --max are reported, not run."""
+    import gzip
+    bench = _load("network")
+    scen = bench.make_network(tmp_path / "net", 5, years=1)
+    ids = {ln.split(",", 1)[0] for ln in gzip.open(scen.parent / "met.csv.gz", "rt")
+           if ln[:1] == "n"}
+    assert ids == {f"n{i:04d}" for i in range(5)}
+    assert "n0004-P" in (scen.parent / "precipitation.csv").read_text()
+    assert 'end = "2017-01-01"' in scen.read_text()
+    rows = bench.main(["--sizes", "1", "4", "--years", "1", "--max", "1"])
+    assert rows[0]["status"] == "run" and rows[0]["exit_code"] == 0
+    assert rows[0]["peak_rss_mb"] > 0 and rows[0]["wall_s"] > 0
+    assert rows[1]["status"].startswith("not run")
+    assert "not run" in capsys.readouterr().out
