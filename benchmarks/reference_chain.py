@@ -208,21 +208,24 @@ def build(jit=None):
         sqrt_reb = math.sqrt(st_per_vg * rebound)
         ra_p = ra if (wet == wet and valid_cat) else NAN
         alpha, neg_gamma = alpha_t[zrow], -gamma_t[zrow]
+        two_fp, slip_per_d = 2.0 * free_path, -Z.SLIP_C / (2.0 * free_path)
+        vg_per = G / (18.0 * mu)
+        sc_per = 3.0 * math.pi * mu * nu / (C.BOLTZMANN * temp)
         total, vg_sum = 0.0, 0.0
         for i in range(len(nodes)):
-            d, w = nodes[i][0], nodes[i][1]
-            if growth:
-                rd = d / 2.0 / Z.M_PER_CM
-                dw = (c1 * rd ** c2 / (c3 * rd ** c4 - log10_rh) + rd ** 3) ** (1.0 / 3.0)
-                dw = dw * 2.0 * Z.M_PER_CM
+            # per node: d, w and the terms of the node alone (see prepare)
+            d, w, gr_a, gr_b, rd3, excess = (nodes[i][0], nodes[i][1], nodes[i][2], nodes[i][3],
+                                             nodes[i][4], nodes[i][5])
+            if growth:  # Gerber (1985), radii in cm
+                dw = (gr_a / (gr_b - log10_rh) + rd3) ** (1.0 / 3.0) * (2.0 * Z.M_PER_CM)
             else:
                 dw = d + (NAN if rh != rh else 0.0)
             d2 = dw * dw
-            rho_p = (density - C.WATER_DENSITY) * d ** 3 / (d2 * dw) + C.WATER_DENSITY
-            x = max(dw * (-Z.SLIP_C / (2.0 * free_path)), Z._SLIP_EXP_MIN)
-            cc = (math.exp(x) * Z.SLIP_B + Z.SLIP_A) * (2.0 * free_path / dw) + 1.0
-            log_sc = math.log(dw / cc * (3.0 * math.pi * mu * nu / (C.BOLTZMANN * temp)))
-            vg = rho_p * d2 * cc * (G / (18.0 * mu))
+            rho_p = excess / (d2 * dw) + C.WATER_DENSITY
+            x = max(dw * slip_per_d, Z._SLIP_EXP_MIN)
+            cc = (math.exp(x) * Z.SLIP_B + Z.SLIP_A) * (two_fp / dw) + 1.0
+            log_sc = math.log(dw / cc * sc_per)
+            vg = rho_p * d2 * cc * vg_per
             st = vg * st_per_vg
             e = (math.exp(neg_gamma * log_sc) + (st / (alpha + st)) ** 2 + d2 * ein_per_d2) * (
                 Z.EPSILON_0 * us_r)
@@ -265,7 +268,9 @@ def prepare(met, surfaces, opt, engine):
     -------
     tuple
         ``(h, rcp, site, tabs, nodes)``: hourly arrays, receptor constants, site
-        constants, scalar options and tables, Gauss-Hermite (diameter [m], weight [-]).
+        constants, scalar options and tables, and per Gauss-Hermite node: diameter [m],
+        weight [-], C1 rd^C2 and C3 rd^C4 of Gerber's law [cm], rd^3 [cm3],
+        (rho_dry - rho_water) d^3 [kg].
     """
     def st(name):
         return (np.asarray(met[name].transpose("site", "time").values, float) if name in met
@@ -304,7 +309,14 @@ def prepare(met, surfaces, opt, engine):
             alpha, gamma, smooth.astype(float), Z._ROW["water"], float(c[0]), float(c[1]),
             float(c[2]), float(c[3]), growth, float(mode.density))
     d, w = Z.lognormal_nodes(mode.mmd, mode.gsd, opt.size_nodes)
-    nodes = np.stack([d, w], axis=1)
+    # the terms of one node alone (Python floats, as the engine computes them): C1 rd^C2,
+    # C3 rd^C4, rd^3 of the dry radius rd [cm], and (rho_dry - rho_water) d^3 [kg]
+    rows = []
+    for di, wi in zip(d.tolist(), w.tolist()):
+        rd = di / 2.0 / Z.M_PER_CM
+        rows.append((di, wi, c[0] * rd ** c[1], c[2] * rd ** c[3], rd ** 3,
+                     (mode.density - C.WATER_DENSITY) * di ** 3))
+    nodes = np.array(rows, dtype=float)
     return h, rcp, site, tabs, nodes
 
 
