@@ -122,8 +122,8 @@ def make_network(out_dir, n_sites, years=2) -> Path:
         with open(DEMO / name, encoding="utf-8") as f:
             (out / name).write_text(copy(f, "start", True), encoding="utf-8")
     text = (DEMO / "scenario.toml").read_text(encoding="utf-8")
-    text = text.replace('resolution = "year"', f'resolution = "year"\nstart = "{FIRST_YEAR}-01-01"\n'
-                        f'end = "{FIRST_YEAR + years}-01-01"')
+    text = text.replace('resolution = "year"', 'resolution = "year"\n'
+                        f'start = "{FIRST_YEAR}-01-01"\nend = "{FIRST_YEAR + years}-01-01"')
     (out / "scenario.toml").write_text(text, encoding="utf-8")
     return out / "scenario.toml"
 
@@ -235,7 +235,8 @@ def main(argv=None):
             rows.append(row)
             if row["status"] == "run":
                 print(f"{size:5d} site-years ({row['sites']} sites x {row['years']} years): "
-                      f"wall {row['wall_s']:7.1f} s, CPU {row['cpu_s']:7.1f} s, peak RSS {row['peak_rss_mb']:7.0f} MB, "
+                      f"wall {row['wall_s']:7.1f} s, CPU {row['cpu_s']:7.1f} s, "
+                      f"peak RSS {row['peak_rss_mb']:7.0f} MB, "
                       f"exit {row['exit_code']}  (inputs generated in {row['generate_s']:.1f} s)")
             else:
                 print(f"{size:5d} site-years: {row['status']}")
