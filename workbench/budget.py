@@ -43,8 +43,12 @@ FRACTIONS = {
     "wet_gauge_fraction": "fraction of the period with a valid gauge record",
     "wet_coverage_fraction": "fraction of the period covered by valid or dry samples",
     "wet_valid_precip_fraction": "fraction of the precipitation with valid chemistry",
+    "wet_flagged_precip_fraction": "fraction of the precipitation carried by kept samples "
+                                   "that failed a check (flagged)",
     "air_coverage": "fraction of the period's hours with a concentration",
     "vd_coverage": "fraction of the period's hours with a modelled (not filled) Vd",
+    "flux_coverage": "fraction of the period's hours with a concentration and a Vd "
+                     "(and the air density for a mixing ratio)",
 }
 
 #: What the budget leaves out, with an order of magnitude where the literature gives one
@@ -167,12 +171,114 @@ def annual_factor(periods: pd.DataFrame) -> np.ndarray:
 
 # ------------------------------------------------------------------------------ assembly
 
-def _dry_status(coverage, vd_cov, filled_share, measured, season_ok, options):
+def _dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
+                options):
+    """Status, completeness failure and reason of a dry component.
+
+    Parameters
+    ----------
+    coverage, vd_cov, filled_share, flux_cov : ndarray
+        Share of the period's hours with a concentration, with a modelled Vd, with
+        a filled Vd, and in sampling periods whose flux is known [1].
+    measured, season_ok : ndarray of bool
+    ratio : bool
+        The species is given as a mixing ratio (needs the molar density of air).
+    options : BudgetOptions
+
+    Returns
+    -------
+    status : ndarray of str
+    fails : ndarray of bool
+        A present component fails completeness (status ``flagged``).
+    note : ndarray of str
+        Why a component is missing or flagged ('' otherwise).
+    """
+    vd_any = np.nan_to_num(vd_cov) + np.nan_to_num(filled_share)
+    low_flux = flux_cov < options.min_air_coverage
+    fails = (coverage < options.min_air_coverage) | ~season_ok | low_flux
     status = np.full(coverage.shape, "complete", dtype=object)
     status = np.where(filled_share > 1 - options.min_vd_coverage, "filled", status)
-    status = np.where((coverage < options.min_air_coverage) | ~season_ok, "flagged", status)
-    status = np.where(~np.isfinite(vd_cov) | (coverage <= 0), "missing", status)
-    return np.where(measured, status, "missing")
+    status = np.where(fails, "flagged", status)
+    note = np.full(coverage.shape, "", dtype=object)
+    note = np.where(low_flux & (flux_cov > 0) & (flux_cov < coverage),
+                    "flux known for part of the sampled hours only (Vd or air density "
+                    "missing in the others)", note)
+    note = np.where(~season_ok & (coverage > 0), "a season without concentrations", note)
+    no_vd = vd_any <= 0
+    why_none = np.where(no_vd, "no deposition velocity for any hour of the period (check the "
+                        "met record and the site's roughness and heights)",
+                        "no molar density of air (temperature or pressure) in the sampled "
+                        "hours: the mixing ratio cannot become a flux" if ratio else
+                        "no hour with both a concentration and a deposition velocity")
+    gone = (coverage > 0) & ~(flux_cov > 0)
+    note = np.where(gone, why_none, note)
+    note = np.where(~(coverage > 0), "no concentration in the period", note)
+    note = np.where(measured, note, "not measured at the site (no valid concentration)")
+    missing = ~measured | ~(coverage > 0) | gone | ~np.isfinite(vd_cov)
+    status = np.where(missing, "missing", status)
+    return status, fails & ~missing, note
+
+
+def _join(acc, text):
+    """Append `text` to the '; '-joined notes in `acc` (ndarray of str or str)."""
+    acc = np.asarray(acc, dtype=object)
+    return np.where(acc == "", text, acc + "; " + text).astype(object)
+
+
+def _wet_component(w, sp, options, w_status, w_fail):
+    """Deposition, status, completeness failure and note of a wet component.
+
+    Parameters
+    ----------
+    w : xarray.Dataset
+        Wet deposition (site, period) on the budget's axes.
+    sp : str
+        ``SO4``, ``NO3`` or ``NH4``.
+    options : BudgetOptions
+    w_status, w_fail : ndarray
+        Period status of the wet chain and its completeness failure.
+
+    Returns
+    -------
+    status, note : ndarray of str
+    deposition : ndarray [mol m-2] or None (no such column)
+    fails : ndarray of bool
+    """
+    v = w.variables
+    tracer = w.attrs.get("seasalt_tracer", "Na")
+    nss = sp == "SO4" and options.sulfate_basis == "nss"
+    name = f"dep_nss{sp}" if nss and "dep_nssSO4" in v else f"dep_{sp}"
+    if name not in v:
+        return None, None, None, None
+    d = v[name].values.astype(float)
+    reasons = v["completeness_reasons"].values.astype(object) if "completeness_reasons" in v \
+        else np.full(d.shape, "", object)
+    status = w_status.copy()
+    note = np.where(status != "complete", reasons, "").astype(object)
+    soft = np.zeros(d.shape, bool)          # flagged for a reason other than completeness
+    if nss and name == f"dep_{sp}":
+        soft[:] = True
+        note = _join(note, f"no {tracer} measured: total {sp} used in place of non-sea-salt "
+                     f"{sp} (sea salt included)")
+    elif nss:
+        for var, text in ((f"nss{sp}_total_used", f"no {tracer} at the site in the period: "
+                           f"total {sp} used in place of non-sea-salt {sp} (sea salt included)"),
+                          (f"nss{sp}_clipped", f"sea-salt {sp} from {tracer} exceeds the "
+                           f"measured {sp}: non-sea-salt {sp} clipped at 0")):
+            if var in v:
+                hit = v[var].values.astype(bool)
+                soft |= hit
+                note = np.where(hit, _join(note, text), note)
+    status = np.where(soft & np.isin(status, ("complete", "filled")), "flagged", status)
+    precip = v["precipitation"].values if "precipitation" in v else np.full(d.shape, np.nan)
+    gone = ~np.isfinite(d) & (status != "missing")
+    status = np.where(gone, "missing", status).astype(object)
+    note = np.where(gone, _join(note, f"no valid {sp} value in the period's samples" if
+                                 np.all(np.isfinite(precip[gone])) else
+                                 "no precipitation depth"), note)
+    note = np.where((status == "missing") & (note == ""), "no precipitation samples in the "
+                    "period", note)
+    return status, note, d, w_fail & (status != "missing")
 
 
 def _season_ok(dry: xr.Dataset, season_cov, periods, options):
@@ -241,6 +347,8 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     #: the fractions behind `completeness`, per component (NaN where not applicable)
     fractions = {name: np.full((n_s, n_r, n_p, n_c), np.nan) for name in FRACTIONS}
     comp_note = np.full((n_s, n_r, n_p, n_c), "", dtype=object)
+    #: a present component fails completeness (flagged for coverage, not for a flag)
+    fails = np.zeros((n_s, n_r, n_p, n_c), bool)
     active = np.array([[r in catalogue[s].surfaces for r in receptors] for s in sites])
     bulk = np.array([catalogue[s].collector == "bulk" for s in sites])
     notes = []
@@ -250,6 +358,8 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             wet.reindex(site=sites, period=labels)
         w_status = w.variables["status"].values.astype(object)
         w_status = np.where(pd.isna(w_status), "missing", w_status)
+        w_fail = (w.variables["completeness_failed"].values.astype(bool)
+                  if "completeness_failed" in w.variables else w_status == "flagged")
         w_frac = np.fmin(np.fmin(w.variables["gauge_fraction"].values, w.variables["coverage_fraction"].values),
                          w.variables["valid_precip_fraction"].values)
     if dry is not None:
@@ -257,30 +367,39 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
         d_species = list(dr.variables["species"].values)
         d_dep, d_cov = dr.variables["deposition"].values, dr.variables["coverage"].values
         d_vdc, d_fs, d_meas = dr.variables["vd_coverage"].values, dr.variables["vd_filled_share"].values, dr.variables["measured"].values
+        d_fc = (dr.variables["flux_coverage"].values if "flux_coverage" in dr.variables
+                else np.where(np.isfinite(d_dep), d_cov[:, None], 0.0))
+        d_ratio = (dr.variables["mixing_ratio"].values if "mixing_ratio" in dr.variables
+                   else np.zeros(len(d_species), bool))
         d_sok = _season_ok(dry, season_cov, periods, options)
     for j, (el, path, sp) in enumerate(comps):
         if path == "wet":
             if wet is None:
+                comp_note[..., j] = "no precipitation chemistry input"
                 continue
-            name = f"dep_nss{sp}" if (sp == "SO4" and options.sulfate_basis == "nss"
-                                      and "dep_nssSO4" in wet) else f"dep_{sp}"
-            if name not in wet:
+            st, note, d, fl = _wet_component(w, sp, options, w_status, w_fail)
+            if d is None:
+                comp_note[..., j] = f"no {sp} column in the precipitation chemistry"
                 continue
-            d = w.variables[name].values.astype(float)
             if options.bulk_correction == "scale_wet":
                 d = np.where(bulk[:, None], d * options.bulk_wet_factor, d)
+                note = np.where(bulk[:, None], _join(note, f"bulk deposition x "
+                                                     f"{options.bulk_wet_factor:g} "
+                                                     "(bulk_correction scale_wet)"), note)
             dep[:, :, :, j] = d[:, None, :]
-            status[:, :, :, j] = w_status[:, None, :]
+            status[:, :, :, j] = st[:, None, :]
+            fails[:, :, :, j] = fl[:, None, :]
+            comp_note[:, :, :, j] = note[:, None, :]
             compl[:, :, :, j] = w_frac[:, None, :]
             for name, var in (("wet_gauge_fraction", "gauge_fraction"),
                               ("wet_coverage_fraction", "coverage_fraction"),
-                              ("wet_valid_precip_fraction", "valid_precip_fraction")):
-                fractions[name][:, :, :, j] = w.variables[var].values[:, None, :]
-            if options.bulk_correction == "scale_wet" and bulk.any():
-                comp_note[bulk, :, :, j] = (f"bulk deposition x {options.bulk_wet_factor:g} "
-                                            "(bulk_correction scale_wet)")
+                              ("wet_valid_precip_fraction", "valid_precip_fraction"),
+                              ("wet_flagged_precip_fraction", "flagged_precip_fraction")):
+                if var in w.variables:
+                    fractions[name][:, :, :, j] = w.variables[var].values[:, None, :]
         else:
             if dry is None or sp not in d_species:
+                comp_note[..., j] = f"no air concentrations of {sp}"
                 continue
             k = d_species.index(sp)
             if sp in PARTICLES and bulk.any():
@@ -297,7 +416,10 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             fs = d_fs[..., k]
             meas = d_meas[:, None, None, k] * np.ones((1, n_r, n_p), bool)
             sok = d_sok[:, :, k][:, None, :]
-            st = _dry_status(cov, vdc, fs, meas, sok, options)
+            fc = d_fc[..., k]
+            st, fl, why = _dry_status(cov, vdc, fs, fc, meas, sok, bool(d_ratio[k]), options)
+            fails[..., j] = fl
+            comp_note[..., j] = why
             if sp in PARTICLES and options.bulk_correction == "exclude_particles":
                 excl = bulk[:, None, None] & np.ones((1, n_r, n_p), bool)
                 # not known apart from the bulk "wet" deposition: missing, and said why
@@ -311,8 +433,9 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                                  "(taken as caught by the collector)")
             dep[:, :, :, j] = d
             status[:, :, :, j] = st
-            compl[:, :, :, j] = np.fmin(cov, vdc)
+            compl[:, :, :, j] = np.fmin(np.fmin(cov, fc), vdc)
             fractions["air_coverage"][:, :, :, j] = cov
+            fractions["flux_coverage"][:, :, :, j] = fc
             fractions["vd_coverage"][:, :, :, j] = vdc
     dep = np.where(status == "missing", np.nan, dep)
     compl = np.where(status == "missing", np.nan, compl)
@@ -328,9 +451,11 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                                  {"units": "1", "long_name": FRACTIONS[name]})
                for name, v in fractions.items()},
             "note": xr.Variable(dims, comp_note),
+            "fails_completeness": xr.Variable(dims, fails & (status != "missing"), {
+                "long_name": "the component fails a completeness criterion"}),
             "status": xr.Variable(dims, status),
             "active": xr.Variable(("site", "receptor"), active)}
-    names, totals = _totals(dep, status, compl, elements, pathways, species)
+    names, totals = _totals(dep, status, compl, elements, pathways, species, fails)
     data.update(totals)
     coords = {"site": sites, "receptor": list(receptors), "period": labels,
               "component": [f"{e}/{p}/{s}" for e, p, s in comps],
@@ -361,7 +486,7 @@ def _same_axis(ds: xr.Dataset, dim: str, values) -> bool:
                                                == np.asarray(values, dtype=object)).all())
 
 
-def _totals(dep, status, compl, element, pathway, species):
+def _totals(dep, status, compl, element, pathway, species, fails=None):
     """Per-element sums by pathway and their status, from the component arrays.
 
     Parameters
@@ -370,6 +495,11 @@ def _totals(dep, status, compl, element, pathway, species):
         (..., component) deposition [mol m-2], status (str) and completeness [1].
     element, pathway, species : ndarray of str
         Per component.
+    fails : ndarray of bool, optional
+        (..., component): a present component fails completeness.  A component
+        ``flagged`` for another reason (kept flagged samples, a sulfate basis that
+        fell back) is named in ``total_flagged_components`` but does not make the
+        sum fail.  Default: every ``flagged`` component fails.
 
     Returns
     -------
@@ -377,9 +507,12 @@ def _totals(dep, status, compl, element, pathway, species):
         ``S_wet`` ... ``N_total``.
     variables : dict
         ``total_deposition`` [mol m-2], ``total_status``, ``total_passes``,
-        ``total_missing_components``, ``total_completeness`` [1] as xarray Variables
-        with dims (site, receptor, period, total).
+        ``total_missing_components``, ``total_flagged_components``,
+        ``total_completeness`` [1] as xarray Variables with dims (site, receptor,
+        period, total).
     """
+    if fails is None:
+        fails = np.asarray(status, dtype=object) == "flagged"
     out = {}
     for e in ("S", "N"):
         for p in ("wet", "dry", "total"):
@@ -387,15 +520,19 @@ def _totals(dep, status, compl, element, pathway, species):
             d = dep[..., sel]
             st = status[..., sel]
             total = np.where(np.isfinite(d).any(-1), np.nansum(d, -1), np.nan)
-            combined, passes = combine_status(st)
+            combined, _ = combine_status(st)
+            passes = ~(fails[..., sel] & (st != "missing")).any(-1) & (combined != "missing")
             absent = np.full(total.shape, "", dtype=object)
+            flagged = np.full(total.shape, "", dtype=object)
             for k, spn in enumerate(species[sel]):
                 absent = np.where(st[..., k] == "missing",
                                   np.where(absent == "", spn, absent + " " + spn), absent)
+                flagged = np.where(st[..., k] == "flagged",
+                                   np.where(flagged == "", spn, flagged + " " + spn), flagged)
             with np.errstate(all="ignore"):
                 worst = (np.nanmin(np.where(st == "missing", np.nan, compl[..., sel]), -1)
                          if (st != "missing").any() else np.full(total.shape, np.nan))
-            out[f"{e}_{p}"] = (total, combined, passes, absent, worst)
+            out[f"{e}_{p}"] = (total, combined, passes, absent, worst, flagged)
     names = list(out)
     dims = ("site", "receptor", "period", "total")
 
@@ -405,10 +542,13 @@ def _totals(dep, status, compl, element, pathway, species):
         "total_deposition": xr.Variable(dims, stack(0), {"units": "mol m-2",
                                                          "long_name": "sum of components (element)"}),
         "total_status": xr.Variable(dims, stack(1)),
-        "total_passes": xr.Variable(dims, stack(2),
-                                    {"long_name": "present components pass completeness"}),
+        "total_passes": xr.Variable(dims, stack(2), {
+            "long_name": "present components pass completeness (a component flagged only "
+                         "for kept flagged samples or a sulfate fallback passes)"}),
         "total_missing_components": xr.Variable(dims, stack(3),
                                                 {"long_name": "components without data"}),
+        "total_flagged_components": xr.Variable(dims, stack(5),
+                                                {"long_name": "components with status flagged"}),
         "total_completeness": xr.Variable(dims, stack(4), {"units": "1"})}
 
 
