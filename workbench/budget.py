@@ -24,7 +24,7 @@ import xarray as xr
 
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
-from .units import element_deposition_in
+from .units import deposition_in, element_deposition_in
 
 #: (element, pathway, species, source variable) of every budget component, in order.
 COMPONENTS = (
@@ -472,11 +472,62 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             tuple("air_species" if d == "species" else d for d in conc.dims), conc.values,
             conc.attrs)
         coords["air_species"] = dr.variables["species"].values
+    if wet is not None:
+        wet_vars, wet_ions = _wet_outputs(w, options)
+        data.update(wet_vars)
+        coords["wet_ion"] = wet_ions
     ds = xr.Dataset(data, coords=coords)               # built once (each assign aligns)
     ds.attrs.update({"options": json.dumps(options.to_dict(), sort_keys=True),
                      "notes": json.dumps(notes),
                      "omissions": json.dumps([list(o) for o in OMISSIONS])})
     return ds
+
+
+def _wet_outputs(w: xr.Dataset, options):
+    """Precipitation depth, precipitation-weighted means, free acidity of the wet chain.
+
+    Parameters
+    ----------
+    w : xarray.Dataset
+        Wet deposition on the budget's (site, period) axes.
+    options : BudgetOptions
+
+    Returns
+    -------
+    variables : dict
+        ``precipitation`` [mm], ``pwm`` (site, period, wet_ion) [mol m-3],
+        ``pH_pwm`` [1] (pH of the PWM of H+), ``wet_H_deposition`` [mol m-2] (free
+        acidity: the PWM of H+ times the depth), ``wet_status`` (the period status of
+        the wet chain) and ``wet_flagged_share`` [1].
+    ions : list of str
+        The ``wet_ion`` coordinate (the ions, H, and non-sea-salt ions).
+    """
+    v = w.variables
+    dims = ("site", "period")
+    ions = [n.removeprefix("pwm_") for n in w.data_vars if n.startswith("pwm_")]
+    shape = v["status"].shape
+    st = v["status"].values.astype(object)
+    st = np.where(pd.isna(st), "missing", st)
+
+    def get(name, units, long_name):
+        vals = v[name].values if name in v else np.full(shape, np.nan)
+        return xr.Variable(dims, vals, {"units": units, "long_name": long_name})
+    out = {
+        "precipitation": get("precipitation", "mm", "precipitation depth of all gauge-valid "
+                             "samples in the period"),
+        "pH_pwm": get("pH_pwm", "1", "pH of the precipitation-weighted mean H+"),
+        "wet_H_deposition": get("dep_H", "mol m-2", "wet deposition of free acidity H+ "
+                                "(precipitation-weighted mean H+ x depth)"),
+        "wet_flagged_share": get("flagged_precip_fraction", "1", "share of the precipitation "
+                                 "carried by kept samples that failed a check"),
+        "wet_status": xr.Variable(dims, st, {"long_name": "status of the wet chain's period"}),
+        "pwm": xr.Variable(dims + ("wet_ion",),
+                           np.stack([v[f"pwm_{i}"].values for i in ions], -1) if ions
+                           else np.zeros(shape + (0,)),
+                           {"units": "mol m-3", "long_name": "precipitation-weighted mean "
+                            "concentration (nss: non-sea-salt)"}),
+    }
+    return out, ions
 
 
 def _same_axis(ds: xr.Dataset, dim: str, values) -> bool:
@@ -609,6 +660,11 @@ def derived(ds: xr.Dataset) -> xr.Dataset:
                                        + element_deposition_in(red, "N", "eq_ha"),
                                        {"units": eq,
                                         "long_name": "potential acidity 2 S + oxidized N + reduced N"})}
+    if "wet_H_deposition" in ds:
+        h = ds["wet_H_deposition"].transpose("site", "period").values
+        out["wet_H_eq_ha"] = (dims, np.broadcast_to(
+            deposition_in(h, "H", "eq_ha")[:, None, :], d.shape[:3]).copy(),
+            {"units": eq, "long_name": "wet deposition of free acidity H+"})
     with np.errstate(invalid="ignore", divide="ignore"):
         for e in ("S", "N"):
             out[f"{e}_dry_share"] = (dims, t(f"{e}_dry") / t(f"{e}_total"), {"units": "1"})

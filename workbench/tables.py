@@ -1,11 +1,15 @@
-"""Tidy tables of a budget for export and display (``budget.csv``, the span mean)."""
+"""Tidy tables of a budget for export and display (``budget.csv``, ``summary.csv``,
+the span mean)."""
 from __future__ import annotations
+
+import json
 
 import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .units import element_deposition_in
+from .units import deposition_in, element_deposition_in
+from .wet.qa import UMOL_L_PER_MOL_M3
 
 #: The first columns of budget.csv, in this order (a public interface).
 BUDGET_COLUMNS = ("site", "receptor", "period_start", "period_end", "element", "pathway",
@@ -72,6 +76,10 @@ def budget_table(ds: xr.Dataset) -> pd.DataFrame:
                    ["all"] * len(tot_names), "total_missing_components",
                    "total_flagged_components")
     frame = pd.concat([comps, totals], ignore_index=True)
+    basis = "nss"
+    if "options" in ds.attrs:
+        basis = json.loads(ds.attrs["options"]).get("sulfate_basis", "nss")
+    frame = _wet_columns(ds, frame, basis)
     order = {"wet": 0, "dry": 1, "total": 2}
     frame["_o"] = frame["pathway"].map(order) + (frame["species"] == "all") * 0.5
     frame = frame.sort_values(["site", "receptor", "period_start", "element", "_o"],
@@ -127,3 +135,94 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     agg["period"] = "span"
     cols = list(BUDGET_COLUMNS) + ["period", "years_used", "years_excluded"]
     return agg[cols]
+
+
+def _wet_columns(ds: xr.Dataset, frame: pd.DataFrame, basis: str) -> pd.DataFrame:
+    """Add the wet chain's period values to the wet rows of a budget table.
+
+    ``precipitation_mm`` [mm], ``pwm_umol_L`` (precipitation-weighted mean of the
+    row's ion [umol L-1]; non-sea-salt for SO4 on the nss basis; NaN on the sums),
+    ``pH_pwm`` [1] and ``wet_H_eq_ha`` (free acidity H+ deposited [eq ha-1]).
+    """
+    cols = ("precipitation_mm", "pwm_umol_L", "pH_pwm", "wet_H_eq_ha")
+    if "precipitation" not in ds:
+        return frame.assign(**{c: np.nan for c in cols})
+    sites = pd.Index(ds["site"].values.astype(str))
+    periods = pd.Index(ds["period"].values.astype(str))
+    si = sites.get_indexer(frame["site"].astype(str))
+    pi = periods.get_indexer(frame["period"].astype(str))
+    wet = (frame["pathway"] == "wet").to_numpy() & (si >= 0) & (pi >= 0)
+    s, p = np.where(wet, si, 0), np.where(wet, pi, 0)
+
+    def pick(var):
+        return np.where(wet, ds[var].transpose("site", "period").values[s, p], np.nan)
+    out = {"precipitation_mm": pick("precipitation"), "pH_pwm": pick("pH_pwm")}
+    h = pick("wet_H_deposition")
+    out["wet_H_eq_ha"] = deposition_in(h, "H", "eq_ha")
+    ions = list(ds["wet_ion"].values.astype(str)) if "wet_ion" in ds.coords else []
+    want = frame["species"].astype(str).to_numpy().copy()
+    if basis == "nss":
+        want = np.where((want == "SO4") & ("nssSO4" in ions), "nssSO4", want)
+    k = pd.Index(ions).get_indexer(want) if ions else np.full(len(frame), -1)
+    pwm = ds["pwm"].transpose("site", "period", "wet_ion").values if ions else None
+    out["pwm_umol_L"] = (np.where(wet & (k >= 0), pwm[s, p, np.clip(k, 0, None)], np.nan)
+                         * UMOL_L_PER_MOL_M3 if ions else np.full(len(frame), np.nan))
+    return frame.assign(**out)
+
+
+def summary_table(result) -> pd.DataFrame:
+    """summary.csv: one row per configured (site, receptor) pair and period.
+
+    Only the surfaces a site asks for (the ``active`` pairs of the budget); the
+    derived quantities (oxidized and reduced N, potential acidity, shares, the dry
+    N bracket), the S and N totals with their status and the components they
+    lack or flag, and the wet chain's precipitation depth [mm], pH of the
+    precipitation-weighted mean H+, free acidity deposited [eq ha-1] and the
+    precipitation-weighted mean of each ion [umol L-1].
+
+    Parameters
+    ----------
+    result : workbench.pipeline.Result
+        ``budget`` and ``derived`` Datasets of the run's resolution.
+
+    Returns
+    -------
+    pandas.DataFrame
+    """
+    ds = result.budget
+    frame = result.derived.to_dataframe().reset_index()
+    sites = pd.Index(ds["site"].values.astype(str))
+    recs = pd.Index(ds["receptor"].values.astype(str))
+    periods = pd.Index(ds["period"].values.astype(str))
+    si = sites.get_indexer(frame["site"].astype(str))
+    ri = recs.get_indexer(frame["receptor"].astype(str))
+    pi = periods.get_indexer(frame["period"].astype(str))
+    keep = ds["active"].values[si, ri]
+    frame, si, ri, pi = frame[keep].reset_index(drop=True), si[keep], ri[keep], pi[keep]
+    if "period_start" not in frame:
+        frame.insert(3, "period_start", pd.to_datetime(ds["period_start"].values[pi]))
+        frame.insert(4, "period_end", pd.to_datetime(ds["period_end"].values[pi]))
+    names = list(ds["total"].values.astype(str))
+    order = ("site", "receptor", "period", "total")
+    tot = ds["total_deposition"].transpose(*order).values
+    for e in ("S", "N"):
+        j = names.index(f"{e}_total")
+        v = tot[si, ri, pi, j]
+        frame[f"{e}_total_kg_ha"] = element_deposition_in(v, e, "kg_ha")
+        frame[f"{e}_total_kg_ha_yr"] = frame[f"{e}_total_kg_ha"] * ds["annual_factor"].values[pi]
+        for col, var in (("status", "total_status"), ("missing_components",
+                                                       "total_missing_components"),
+                         ("flagged_components", "total_flagged_components")):
+            if var in ds:
+                frame[f"{e}_total_{col}"] = ds[var].transpose(*order).values[si, ri, pi, j]
+    if "precipitation" in ds:
+        def wet(var):
+            return ds[var].transpose("site", "period").values[si, pi]
+        frame["precipitation_mm"] = wet("precipitation")
+        frame["pH_pwm"] = wet("pH_pwm")
+        frame["wet_status"] = wet("wet_status")
+        frame["wet_flagged_share"] = wet("wet_flagged_share")
+        pwm = ds["pwm"].transpose("site", "period", "wet_ion").values[si, pi]
+        for k, ion in enumerate(ds["wet_ion"].values.astype(str)):
+            frame[f"pwm_{ion}_umol_L"] = pwm[:, k] * UMOL_L_PER_MOL_M3
+    return frame

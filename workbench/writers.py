@@ -17,7 +17,7 @@ import xarray as xr
 
 from . import __version__
 from .errors import WorkbenchError
-from .tables import BUDGET_COLUMNS
+from .tables import BUDGET_COLUMNS, summary_table
 
 
 class OutputError(WorkbenchError):
@@ -194,7 +194,7 @@ def write_run(result, study, scenario, out, overwrite=False, progress=None) -> d
     written["budget.csv"] = atomic_write(out / "budget.csv", lambda t: table[cols].to_csv(
         t, index=False, float_format="%.10g", date_format="%Y-%m-%dT%H:%M"))
     say("summary.csv")
-    summ = result.derived.to_dataframe().reset_index()
+    summ = summary_table(result)
     written["summary.csv"] = atomic_write(out / "summary.csv", lambda t: summ.to_csv(
         t, index=False, float_format="%.10g"))
     say("budget.nc")
