@@ -16,6 +16,7 @@ chain's free acidity H+).
 from __future__ import annotations
 
 import json
+import warnings
 from dataclasses import asdict, dataclass, field
 
 import numpy as np
@@ -222,6 +223,7 @@ def _dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, r
 def _join(acc, text):
     """Append `text` to the '; '-joined notes in `acc` (ndarray of str or str)."""
     acc = np.asarray(acc, dtype=object)
+    acc = np.where(pd.isna(acc), "", acc)
     return np.where(acc == "", text, acc + "; " + text).astype(object)
 
 
@@ -253,6 +255,7 @@ def _wet_component(w, sp, options, w_status, w_fail):
     d = v[name].values.astype(float)
     reasons = v["completeness_reasons"].values.astype(object) if "completeness_reasons" in v \
         else np.full(d.shape, "", object)
+    reasons = np.where(pd.isna(reasons), "", reasons).astype(object)   # sites without samples
     status = w_status.copy()
     note = np.where(status != "complete", reasons, "").astype(object)
     soft = np.zeros(d.shape, bool)          # flagged for a reason other than completeness
@@ -580,7 +583,8 @@ def _totals(dep, status, compl, element, pathway, species, fails=None):
                                   np.where(absent == "", spn, absent + " " + spn), absent)
                 flagged = np.where(st[..., k] == "flagged",
                                    np.where(flagged == "", spn, flagged + " " + spn), flagged)
-            with np.errstate(all="ignore"):
+            with np.errstate(all="ignore"), warnings.catch_warnings():
+                warnings.simplefilter("ignore", RuntimeWarning)     # all-NaN slices
                 worst = (np.nanmin(np.where(st == "missing", np.nan, compl[..., sel]), -1)
                          if (st != "missing").any() else np.full(total.shape, np.nan))
             out[f"{e}_{p}"] = (total, combined, passes, absent, worst, flagged)
