@@ -25,8 +25,9 @@ UTC+1, no daylight saving; coordinates invented to give a plausible sun path):
            (monthly passive samplers beside the weekly filter pack) and NH4 in rain.
 
 Records run from 2016-01-01 (local) for ``--years`` years (default 8): hourly
-meteorology, weekly precipitation samples (Tuesday 09:00 to Tuesday 09:00) and weekly
-filter packs (Tuesday 10:00), monthly passive NH3 at the farm.  The deliberate
+meteorology, weekly precipitation samples (Thursday 14:00 to Thursday 14:00 local) and
+weekly filter packs (Thursday 15:00), monthly passive NH3 at the farm: the operator's
+weekly round (see ``network.py``).  The deliberate
 problems for the QA features are listed, with file and line, in
 ``planted_problems.json``.
 
@@ -54,16 +55,17 @@ import gen_chemistry as chem  # noqa: E402
 import gen_weather as weather  # noqa: E402
 import plant  # noqa: E402
 import tables as tb  # noqa: E402
-from network import (BOTTLE_ML, CATALOGUE_KEYS, DETECTION_LIMIT_AIR,  # noqa: E402
-                     DETECTION_LIMIT_PRECIP, SITES, TRACE_MM)
+from network import (AIR_CHANGE_HOUR, BOTTLE_ML, CATALOGUE_KEYS,  # noqa: E402
+                     CHANGE_WEEKDAY, DETECTION_LIMIT_AIR, DETECTION_LIMIT_PRECIP,
+                     PRECIP_CHANGE_HOUR, SITES, TRACE_MM)
 
 SEED = 20160105
 START = np.datetime64("2016-01-01T00:00")
 HOUR = np.timedelta64(60, "m")
 DAY = np.timedelta64(1, "D")
 WEEK_H = 168
-PRECIP_CHANGE = np.timedelta64(9, "h")      # collector change, Tuesday 09:00 local
-AIR_CHANGE = np.timedelta64(10, "h")        # filter change, Tuesday 10:00 local
+PRECIP_CHANGE = np.timedelta64(PRECIP_CHANGE_HOUR, "h")   # collector change, local
+AIR_CHANGE = np.timedelta64(AIR_CHANGE_HOUR, "h")         # filter change, local
 RIDGE_NEW_COLLECTOR = np.datetime64("2020-01-01T00:00")
 #: Manual gauge over the sum of the hourly tipping bucket: bias and log sigma [-].
 GAUGE_BIAS, GAUGE_SIGMA = 1.02, 0.04
@@ -98,10 +100,11 @@ def years_since_start(t):
 
 
 def weekly_starts(end, change):
-    """Weekly Tuesday starts (local) of periods that end by `end`."""
+    """Weekly starts (local, on the round's weekday) of periods that end by `end`."""
     days = START.astype("datetime64[D]")
-    weekday = (days.astype(np.int64) + 3) % 7                  # 1970-01-01 was a Thursday
-    first = (days + np.timedelta64(int((1 - weekday) % 7), "D")).astype("datetime64[m]") + change
+    weekday = (days.astype(np.int64) + 3) % 7      # Monday = 0 (1970-01-01 was a Thursday)
+    ahead = np.timedelta64(int((CHANGE_WEEKDAY - weekday) % 7), "D")
+    first = (days + ahead).astype("datetime64[m]") + change
     n = int((end - first) // np.timedelta64(7, "D"))
     return first + np.arange(n) * np.timedelta64(7, "D")
 
@@ -110,8 +113,8 @@ def monthly_periods(end, change):
     months = np.arange(START.astype("datetime64[M]"), end.astype("datetime64[M]"))
     starts = months.astype("datetime64[D]").astype("datetime64[m]") + change
     ends = (months + 1).astype("datetime64[D]").astype("datetime64[m]") + change
-    # the last exposure is taken in early, two and a half days before the record ends
-    ends = np.minimum(ends, end - np.timedelta64(2, "D") - np.timedelta64(14, "h"))
+    # the last exposure is taken in early, at the change hour three days before the record ends
+    ends = np.minimum(ends, end - np.timedelta64(3, "D") + change)
     return starts, ends
 
 
@@ -151,8 +154,8 @@ def precipitation_tables(rng, met, end, plan):
         dry = ctx.gauge == 0
         over = volume > BOTTLE_ML
         volume = np.where(over, BOTTLE_ML, volume)
-        ctx.flags = plant.add_flag(ctx.flags, trace, "T")
-        ctx.flags = plant.add_flag(ctx.flags, over, "O")
+        ctx.flags = plant.add_flag(ctx.flags, trace, "trace")
+        ctx.flags = plant.add_flag(ctx.flags, over, "overflow")
         mg = {k: chem.ueq_to_mg(k, noisy[k]) for k in chem.IONS}
         mg["PO4"] = noisy["PO4_mgl"]
         cols = {"gauge_depth [mm]": ctx.gauge, "sample_volume [mL]": volume,

@@ -123,7 +123,14 @@ DETECTION_LIMIT_PRECIP = {"SO4": 0.03, "NO3": 0.01, "NH4": 0.01, "Cl": 0.03, "Na
                           "K": 0.01, "Ca": 0.01, "Mg": 0.005, "PO4": 0.005}
 DETECTION_LIMIT_AIR = {"SO2": 0.05, "HNO3": 0.03, "NH3": 0.05, "pSO4": 0.03, "pNO3": 0.03,
                        "pNH4": 0.03, "pNa": 0.02}
-#: Bottle capacity of the precipitation collectors [mL].
-BOTTLE_ML = 3500.0
-#: Below this gauge depth [mm] the sample is too small for analysis (flag T).
+#: Bottle capacity of the precipitation collectors [mL] (a 3.3 L bottle: the wettest
+#: weeks of the record overflow it, so the demo holds overflowed samples).
+BOTTLE_ML = 3300.0
+#: Below this gauge depth [mm] the sample is too small for analysis (flag ``trace``).
 TRACE_MM = 0.5
+#: The operator's weekly round, local time (our choice; nothing special about the day):
+#: Thursday afternoon, the precipitation collector changed at 14:00 and the filter
+#: pack an hour later, at 15:00, on the way back down.
+CHANGE_WEEKDAY = 3            # Monday = 0
+PRECIP_CHANGE_HOUR = 14
+AIR_CHANGE_HOUR = 15

@@ -12,12 +12,14 @@ from __future__ import annotations
 import numpy as np
 
 import gen_chemistry as chem
+from network import PRECIP_CHANGE_HOUR
 
 D = lambda s: np.datetime64(s, "m")  # noqa: E731
 
-#: Weeks (start, Tuesday 09:00 local) forced dry: "*" = every site (a summer anticyclone).
-DRY_WEEKS = [("*", "2018-06-26"), ("*", "2018-07-03"), ("farm", "2020-04-14"),
-             ("mere", "2021-09-07")]
+#: Weeks (start, Thursday at the collector change, local) forced dry: "*" = every site
+#: (a summer anticyclone).
+DRY_WEEKS = [("*", "2018-06-28"), ("*", "2018-07-05"), ("farm", "2020-04-16"),
+             ("mere", "2021-09-09")]
 #: kind -> (site, window start, window end, target gauge depth [mm]; inf = largest)
 PICKS = {
     "contaminated_unflagged": ("fell", "2017-06-01", "2017-09-01", 8.0),
@@ -34,7 +36,7 @@ PICKS = {
     "not_analysed": ("mere", "2022-05-01", "2022-06-01", 8.0),
 }
 #: Hourly rows absent from met.csv.gz: site, (after, up to and including] local times.
-MET_GAP = ("mere", "2019-02-19T09:00", "2019-02-26T09:00")
+MET_GAP = ("mere", "2019-02-21T14:00", "2019-02-28T14:00")
 #: A month of relative humidity written as a fraction: site, (after, up to and incl.].
 RH_FRACTION = ("fell", "2021-08-01T00:00", "2021-09-01T00:00")
 #: Target pH of the soil-dust sample [1] and its gypsum-like Ca + SO4 pair [ueq/L].
@@ -50,12 +52,12 @@ EXPECT = {
     "no flag (bird-dropping contamination): QA should mark the chemistry as contaminated and keep it "
     "out of the precipitation-weighted means; the gauge depth still counts. If PO4 is counted with "
     "charge 3 instead of as H2PO4- the ion balance is poor too.",
-    "contaminated_flagged": "flag C (insects in the funnel): chemistry invalid, gauge depth counts.",
+    "contaminated_flagged": "flag contaminated (insects in the funnel): chemistry invalid, gauge depth counts.",
     "soil_dust": "pH above 6 with Ca far above the site's usual range (and raised SO4, Mg): soil "
     "dust (carbonate and gypsum) neutralised the acidity; the ion balance closes (bicarbonate "
     "from CO2 equilibrium is small at this pH). QA should note a dust-influenced sample; it stays "
     "valid.",
-    "lid_open": "flag B on a wet-only collector (lid stuck open, dry deposition collected): "
+    "lid_open": "flag lid_open on a wet-only collector (lid stuck open, dry deposition collected): "
     "chemistry invalid, gauge depth counts.",
     "below_detection_clean": "a very clean large summer event: K, Ca, Mg and PO4 written as '<DL': "
     "censored values, kept with their detection limits.",
@@ -66,13 +68,13 @@ EXPECT = {
     "ion balance fails (see ion_balance_percent_as_written) and the conductivity computed from the "
     "ions falls short of the measured one; QA should flag the sample's chemistry.",
     "negative_after_blank": "PO4 negative after blank subtraction: censored with a note, not an error.",
-    "gauge_failed": "flag G with no gauge depth: chemistry valid, depth missing (fill or exclude).",
-    "gauge_estimated": "flag E: gauge depth estimated by the operator (whole mm); valid, marked.",
-    "sample_lost": "flag X, no volume and no chemistry: sample lost; gauge depth counts.",
-    "not_analysed": "flag N, no chemistry: not analysed; gauge depth counts.",
+    "gauge_failed": "flag gauge_failed with no gauge depth: chemistry valid, depth missing (fill or exclude).",
+    "gauge_estimated": "flag depth_estimated: gauge depth estimated by the operator (whole mm); valid, marked.",
+    "sample_lost": "flag sample_lost, no volume and no chemistry: sample lost; gauge depth counts.",
+    "not_analysed": "flag not_analysed, no chemistry: not analysed; gauge depth counts.",
     "dry_week": "gauge depth 0 and no chemistry: a covered dry week, not a gap.",
-    "trace_sample": "flag T, gauge depth below 0.5 mm, no chemistry: too little to analyse.",
-    "overflow": "flag O: the bottle overflowed (volume at its capacity); chemistry invalid, "
+    "trace_sample": "flag trace, gauge depth below 0.5 mm, no chemistry: too little to analyse.",
+    "overflow": "flag overflow: the bottle overflowed (volume at its capacity); chemistry invalid, "
     "gauge depth counts.",
     "missing_met": "168 hourly rows absent (logger failure): a gap of one week at this site; "
     "the sample of that week has no hourly precipitation to compare with its gauge depth.",
@@ -109,7 +111,7 @@ class Plan:
         mask = np.zeros((len(self.site_ids), times.size), dtype=bool)
         self.forced_dry = []
         for site, day in DRY_WEEKS:
-            t0 = D(day + "T09:00")
+            t0 = D(day) + np.timedelta64(PRECIP_CHANGE_HOUR, "h")
             if t0 + np.timedelta64(7, "D") > self.end:
                 continue
             rows = range(len(self.site_ids)) if site == "*" else [self.site_ids.index(site)]
@@ -169,7 +171,7 @@ class Plan:
                 ion["K"][i] += 10.0
                 ion["NH4"][i] += 15.0
                 ion["PO4_mgl"][i] += 0.15
-                ctx.flags[i] = "C"
+                ctx.flags[i] = "contaminated"
             elif kind == "soil_dust":
                 ion["Ca"][i] += DUST_GYPSUM
                 ion["SO4"][i] += DUST_GYPSUM
@@ -180,7 +182,7 @@ class Plan:
             elif kind == "lid_open":
                 for k, add in (("SO4", 40.0), ("NO3", 15.0), ("NH4", 20.0), ("Ca", 30.0), ("K", 6.0)):
                     ion[k][i] += add
-                ctx.flags[i] = "B"
+                ctx.flags[i] = "lid_open"
             elif kind == "below_detection_clean":
                 for k in ("SO4", "NO3", "NH4"):
                     ion[k][i] *= 0.5
@@ -207,19 +209,19 @@ class Plan:
                 cols["PO4 [mg/L]"][i] = -0.003
             elif kind == "gauge_failed":
                 cols["gauge_depth [mm]"][i] = np.nan
-                ctx.flags[i] = "G"
+                ctx.flags[i] = "gauge_failed"
             elif kind == "gauge_estimated":
                 cols["gauge_depth [mm]"][i] = np.round(cols["gauge_depth [mm]"][i])
-                ctx.flags[i] = "E"
+                ctx.flags[i] = "depth_estimated"
             elif kind == "sample_lost":
                 cols["sample_volume [mL]"][i] = np.nan
                 for c in chem_cols:
                     cols[c][i] = np.nan
-                ctx.flags[i] = "X"
+                ctx.flags[i] = "sample_lost"
             elif kind == "not_analysed":
                 for c in chem_cols:
                     cols[c][i] = np.nan
-                ctx.flags[i] = "N"
+                ctx.flags[i] = "not_analysed"
             elif kind == "low_capture":
                 self.notes[kind] = {"capture_ratio": round(float(
                     cols["sample_volume [mL]"][i] / ctx.site["collector_area_cm2"] * 10.0

@@ -31,7 +31,7 @@ def fmt_censored(x, decimals, limit):
 
 
 def iso(t):
-    """datetime64 -> ISO 8601 text to the minute ("2016-01-05T09:00")."""
+    """datetime64 -> ISO 8601 text to the minute ("2016-01-07T14:00")."""
     return np.datetime_as_string(np.asarray(t).astype("datetime64[m]"), unit="m").astype(object)
 
 

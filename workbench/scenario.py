@@ -25,6 +25,8 @@ SCHEMA: dict = {
         "precipitation": (str, None, "precipitation samples (CSV)"),
         "air": (str, None, "air concentrations (CSV)"),
         "met": (str, None, "hourly meteorology (CSV or NetCDF)"),
+        "flag_map": (str, None, "mapping of a lab's own sample flag codes to the flag words "
+                     "(TOML, see docs/data_formats.md)"),
     },
     "period": {
         "start": (str, None, "first instant of the budget (ISO 8601, UTC); default: the data"),
@@ -333,7 +335,7 @@ def load_scenario_inputs(scenario: Scenario, progress=None):
     paths = scenario.input_paths()
     return load_inputs(paths["sites"], paths.get("precipitation"), paths.get("air"),
                        paths.get("met"), reference_state=scenario.data["air"]["reference_state"],
-                       progress=progress)
+                       progress=progress, flag_map=paths.get("flag_map"))
 
 
 def _plain(value):

@@ -19,12 +19,12 @@ pytestmark = pytest.mark.skipif(not all(f.exists() for f in FILES),
 
 # planted kind -> (allowed statuses, text expected in reasons or notes)
 EXPECTED = {
-    "sample_lost": ({"excluded"}, "flag X"),
-    "contaminated_flagged": ({"excluded"}, "flag C"),
-    "lid_open": ({"excluded"}, "flag B"),
-    "overflow": ({"excluded"}, "flag O"),
-    "not_analysed": ({"excluded"}, "flag N"),
-    "trace_sample": ({"excluded"}, "flag T"),
+    "sample_lost": ({"excluded"}, "flag sample_lost"),
+    "contaminated_flagged": ({"excluded"}, "flag contaminated"),
+    "lid_open": ({"excluded"}, "flag lid_open"),
+    "overflow": ({"excluded"}, "flag overflow"),
+    "not_analysed": ({"excluded"}, "flag not_analysed"),
+    "trace_sample": ({"excluded"}, "flag trace"),
     "ion_balance_poor": ({"flagged", "excluded"}, "ion balance"),
     "contaminated_unflagged": ({"excluded"}, "biological"),
     "soil_dust": ({"flagged"}, "soil dust"),

@@ -31,13 +31,13 @@ def balanced(so4, no3, nh4):
 
 def hand_worked_rows():
     # Weekly samples starting 29 Dec 2020; S0 and S4 straddle month ends,
-    # S3 is a dry week, S5 is contaminated (flag C: gauge counts, chemistry not).
+    # S3 is a dry week, S5 is contaminated (flag contaminated: gauge counts, chemistry not).
     spec = [("2020-12-29", 21.0, balanced(20, 30, 25), ""),
             ("2021-01-05", 10.0, balanced(40, 50, 30), ""),
             ("2021-01-12", 30.0, balanced(10, 15, 20), ""),
             ("2021-01-19", 0.0, {}, ""),
             ("2021-01-26", 14.0, balanced(25, 20, 40), ""),
-            ("2021-02-02", 20.0, balanced(60, 60, 10), "C")]
+            ("2021-02-02", 20.0, balanced(60, 60, 10), "contaminated")]
     rows = []
     for start, depth, chem, flags in spec:
         s, e = week(start)
@@ -158,7 +158,7 @@ def test_zero_mm_month_is_complete_with_zero_flux_and_empty_month_is_missing():
 
 
 def test_seasonal_fill_of_a_failed_month():
-    # Monthly samples over three years; July 2022 is contaminated (flag C), so its
+    # Monthly samples over three years; July 2022 is contaminated (flag contaminated), so its
     # valid-precipitation fraction is 0 and it is filled with the multi-year JJA PWM.
     rows, jja = [], []
     starts = pd.date_range("2021-01-01", "2024-01-01", freq="MS")
@@ -166,7 +166,8 @@ def test_seasonal_fill_of_a_failed_month():
         depth = 20.0 + 7 * (k % 5)
         so4 = 10.0 + 3 * (k % 7)
         bad = s == pd.Timestamp("2022-07-01")
-        rows.append(dict(start=str(s), end=str(e), gauge_depth=depth, flags="C" if bad else "",
+        rows.append(dict(start=str(s), end=str(e), gauge_depth=depth,
+                         flags="contaminated" if bad else "",
                          **balanced(so4, 20, 10)))
         if s.month in (6, 7, 8) and not bad:
             jja.append((so4, depth))
@@ -189,7 +190,7 @@ def test_year_flux_is_annual_pwm_times_annual_precipitation():
     # With an excluded sample, the sum of the monthly fluxes differs from the annual
     # flux (each month scales its own PWM by its own precipitation).
     rows = []
-    for k, (so4, depth, flags) in enumerate([(10, 10, ""), (40, 30, "C"), (20, 20, "")]):
+    for k, (so4, depth, flags) in enumerate([(10, 10, ""), (40, 30, "contaminated"), (20, 20, "")]):
         s = pd.Timestamp(f"2021-{k + 1:02d}-01")
         e = s + pd.offsets.MonthBegin(1)
         rows.append(dict(start=str(s), end=str(e), gauge_depth=depth, flags=flags,

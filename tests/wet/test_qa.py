@@ -139,29 +139,29 @@ def test_detection_limit_treatments():
 
 
 def test_flags_table_decides_chemistry_and_gauge():
-    rows = [_sample(flags="C", **GOOD), _sample(flags="G", **GOOD),
-            _sample(flags="V", **GOOD), _sample(flags="E", **GOOD),
+    rows = [_sample(flags="contaminated", **GOOD), _sample(flags="gauge_failed", **GOOD),
+            _sample(flags="invalid_record", **GOOD), _sample(flags="depth_estimated", **GOOD),
             _sample(flags="Q", **GOOD)]
     sc = screen(make_samples(rows), WetOptions(gauge_fill=()))
     assert sc["chemistry_valid"].values.tolist() == [False, True, False, True, True]
     assert sc["gauge_valid"].values.tolist() == [True, False, False, True, True]
     assert sc["status"].values.tolist() == ["excluded", "excluded", "excluded", "used",
                                             "flagged"]
-    assert "flag C" in sc["reasons"].values[0]
+    assert "flag contaminated" in sc["reasons"].values[0]
     assert "no precipitation depth" in sc["reasons"].values[1]
     assert "estimated" in sc["notes"].values[3]
     assert "unknown flag code" in sc["reasons"].values[4]
 
 
 def test_gauge_fill_from_collector_then_met():
-    # five samples with capture 0.9 give the site median; a G-flagged sample with
+    # five samples with capture 0.9 give the site median; a gauge_failed sample with
     # collector depth 9 mm is filled with 9 / 0.9 = 10 mm
     rows = [_sample(start=week(f"2021-05-{d:02d}")[0], end=week(f"2021-05-{d:02d}")[1],
                     gauge_depth=20.0, sample_depth=18.0, **GOOD) for d in (3, 10, 17, 24, 31)]
-    rows.append(_sample(start="2021-06-07", end="2021-06-14", flags="G", gauge_depth=np.nan,
-                        sample_depth=9.0, **GOOD))
-    rows.append(_sample(start="2021-06-14", end="2021-06-21", flags="G", gauge_depth=np.nan,
-                        sample_depth=np.nan, **GOOD))
+    rows.append(_sample(start="2021-06-07", end="2021-06-14", flags="gauge_failed",
+                        gauge_depth=np.nan, sample_depth=9.0, **GOOD))
+    rows.append(_sample(start="2021-06-14", end="2021-06-21", flags="gauge_failed",
+                        gauge_depth=np.nan, sample_depth=np.nan, **GOOD))
     # hourly met: 0.1 mm/h everywhere -> 16.8 mm a week; the gauge saw 20 mm a week,
     # so the scale is 20/16.8 and the last sample gets 20 mm
     met = make_met(["A"], "2021-05-01", "2021-07-01", precipitation=0.1)

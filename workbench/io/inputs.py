@@ -114,7 +114,7 @@ class Inputs:
 
 
 def load_inputs(sites, precipitation=None, air=None, met=None, reference_state=None,
-                progress=None) -> Inputs:
+                progress=None, flag_map=None) -> Inputs:
     """Read every given file and cross-check them.
 
     Parameters
@@ -126,6 +126,9 @@ def load_inputs(sites, precipitation=None, air=None, met=None, reference_state=N
         Reference state of mass concentrations in `air` when the file states none.
     progress : callable, optional
         Called with a short text before each file (for progress bars).
+    flag_map : str or Path, optional
+        Mapping file of a lab's own flag codes in `precipitation` (see
+        :func:`workbench.flags.read_flag_map`).
 
     Returns
     -------
@@ -137,9 +140,11 @@ def load_inputs(sites, precipitation=None, air=None, met=None, reference_state=N
     inp = Inputs(cat, paths={"sites": Path(sites)})
     if precipitation is not None:
         say("precipitation samples")
-        inp.precipitation, led = read_precipitation(precipitation, cat)
+        inp.precipitation, led = read_precipitation(precipitation, cat, flag_map=flag_map)
         inp.ledger = inp.ledger + led
         inp.paths["precipitation"] = Path(precipitation)
+        if flag_map is not None:
+            inp.paths["flag_map"] = Path(flag_map)
     if air is not None:
         say("air concentrations")
         inp.air, led = read_air(air, cat, reference_state=reference_state)

@@ -6,6 +6,7 @@ Both return ``(dataset, ledger)``; see ``docs/data_formats.md`` for the files an
 from __future__ import annotations
 
 import re
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -64,6 +65,42 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n):
     return data
 
 
+def _flag_words(tab, flag_text, flag_map):
+    """The flags column as our words, space-joined per row (lab codes translated).
+
+    Returns ``(words, note)``: an object array (one text per row) and a ledger note
+    naming the lab codes translated and their row counts ("" when none were).
+    Raises a located error for a code that is neither a word of ours nor a code of
+    the mapping file.
+    """
+    if flag_map is not None and not isinstance(flag_map, dict):
+        map_name = Path(flag_map).name
+        flag_map = _flags.read_flag_map(flag_map)
+    else:
+        map_name = "the flag mapping"
+    codes = pd.Series(flag_text, dtype=object).str.replace(r"[,;]", " ", regex=True).str.split()
+    each = codes.explode()
+    lab = each.isin(list(flag_map)) if flag_map else pd.Series(False, index=each.index)
+    bad = each.notna() & ~each.isin(list(_flags.FLAGS)) & ~lab
+    if bad.any():
+        i = int(bad.index[np.flatnonzero(bad.to_numpy())[0]])
+        hint = (f" or a code of {map_name}" if flag_map else
+                " (a lab's own codes can be translated with a mapping file named as "
+                "[inputs] flag_map in the scenario, see docs/data_formats.md)")
+        raise tab.error("unknown flag code", row=i, column="flags", value=each[bad].iloc[0],
+                        expected=_flags.words_hint() + hint)
+    if not lab.any():
+        return codes.str.join(" ").to_numpy(dtype=object), ""
+    used = each[lab].groupby(level=0).unique().explode().value_counts(sort=False)
+    note = f"lab flag codes translated with {map_name}: " + ", ".join(
+        f"{c} -> {' '.join(flag_map[c]) or '(nothing)'} ({k} row{'s' * (k != 1)})"
+        for c, k in used.items())
+    words = each.where(~lab, each.map({c: " ".join(w) for c, w in flag_map.items()}))
+    words = words.str.split().explode().dropna()
+    joined = words.groupby(level=0).agg(" ".join)
+    return joined.reindex(range(len(codes)), fill_value="").to_numpy(dtype=object), note
+
+
 def _interval_table(path, catalogue, required):
     """Read a file of intervals: checked sites, UTC start and end, sampler ids."""
     tab = RawTable.read(path)
@@ -77,7 +114,7 @@ def _interval_table(path, catalogue, required):
     return tab, n, sites, start, end, samplers
 
 
-def read_precipitation(path, catalogue):
+def read_precipitation(path, catalogue, flag_map=None):
     """Read precipitation samples.
 
     Parameters
@@ -86,6 +123,10 @@ def read_precipitation(path, catalogue):
         CSV file, one row per sample (see docs/data_formats.md).
     catalogue : SiteCatalogue
         For the site ids and their UTC offsets.
+    flag_map : str or Path or dict, optional
+        A mapping file of a lab's own flag codes (:func:`workbench.flags.read_flag_map`),
+        or its content (lab code -> tuple of flag words).  Without it the ``flags``
+        column holds the flag words of :data:`workbench.flags.FLAGS` only.
 
     Returns
     -------
@@ -158,14 +199,7 @@ def read_precipitation(path, catalogue):
     else:
         cond = np.full(n, np.nan)
     flag_text = tab.text("flags") if tab.has("flags") else np.full(n, "", object)
-    codes = pd.Series(flag_text, dtype=object).str.replace(r"[,;]", " ", regex=True).str.split()
-    each = codes.explode()
-    bad = each.notna() & ~each.isin(list(_flags.FLAGS))
-    if bad.any():
-        i = int(bad.index[np.flatnonzero(bad.to_numpy())[0]])
-        raise tab.error("unknown flag code", row=i, column="flags", value=each[bad].iloc[0],
-                        expected="codes among " + " ".join(_flags.FLAGS))
-    flag_norm = codes.str.join(" ").to_numpy(dtype=object)
+    flag_norm, flag_note = _flag_words(tab, flag_text, flag_map)
     parts.append(np.where(flag_norm != "", "flags " + flag_norm.astype(str), ""))
     ion_cols = _species_columns(tab, _species.PRECIP_IONS)
     conc = _concentrations(tab, ion_cols, ("amount_density",), parts, n)
@@ -182,6 +216,8 @@ def read_precipitation(path, catalogue):
     ledger = Ledger.for_rows(tab.path, tab.lines, sites, reasons, empty)
     if unknown:
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
+    if flag_note:
+        ledger.notes.append(f"{tab.path.name}: {flag_note}")
     keep = ~empty
     neg_notes = np.full(n, "", object)
     for sp, (v, c, dl, _) in conc.items():
