@@ -69,7 +69,7 @@ class WetOptions:
     #: such a value is a unit slip, a sentinel or a typing error, and one such
     #: sample can dominate a period's PWM).
     on_gross_error: str = "exclude"
-    #: |ion difference| [%] beyond which the balance is a gross error: 80 %, the
+    #: absolute ion difference [%] beyond which the balance is a gross error: 80 %, the
     #: cations nine times the anions or the reverse, beyond every tier of the
     #: acceptance (60 % at most) with room for an incomplete set of measured ions
     #: (our default).
