@@ -386,3 +386,41 @@ def test_site_without_sodium_falls_back_and_the_total_says_so(tmp_path):
     tot = _get(t, "S", "total", "all")
     assert "SO4" in tot["flagged_components"].split()
     assert tot["flux_kg_ha"] == pytest.approx(so4["flux_kg_ha"] + _get(t, "S", "dry", "all")["flux_kg_ha"])
+
+
+def test_an_ion_measured_in_few_samples_is_flagged(tmp_path):
+    """SO4 blank in the 20 mm week: it stands for 15 of 35 mm (43 % < 70 %), so wet SO4
+    fails completeness (flagged, passes false) while NO3 and NH4 stay complete."""
+    sc = _write(tmp_path)
+    precip = tmp_path / "precip.csv"
+    lines = precip.read_text().splitlines()
+    cells = lines[3].split(",")
+    cells[6] = ""                                   # SO4 of the third week (20 mm)
+    lines[3] = ",".join(cells)
+    precip.write_text("\n".join(lines) + "\n")
+    written, _, _ = run_scenario(sc, tmp_path / "out", quiet=True)
+    t = pd.read_csv(written["budget.csv"])
+    so4 = _get(t, "S", "wet", "SO4")
+    assert so4["status"] == "flagged" and not so4["passes"]
+    assert "SO4 valid for 42.9 % of the precipitation only" in so4["note"]
+    assert _get(t, "N", "wet", "NO3")["status"] == "complete"
+    assert not _get(t, "S", "total", "all")["passes"]
+
+
+def test_span_uses_a_year_flagged_only_for_kept_samples():
+    """A year flagged for kept flagged samples passes completeness (passes true): the span
+    uses it and says flagged; a year failing completeness is still excluded."""
+    from workbench.tables import span_table
+    rows = []
+    for year, value, status, passes in ((2019, 10.0, "complete", True), (2020, 20.0, "flagged", True),
+                                        (2021, 90.0, "flagged", False)):
+        for pathway, species in (("wet", "SO4"), ("total", "all")):
+            rows.append(dict(site="a", receptor="grass", period_start=pd.Timestamp(f"{year}-01-01"),
+                             period_end=pd.Timestamp(f"{year + 1}-01-01"), element="S",
+                             pathway=pathway, species=species, flux_kg_ha=value, flux_eq_ha=value * 62.4,
+                             flux_kg_ha_yr=value, flux_eq_ha_yr=value * 62.4, completeness=0.9,
+                             status=status, passes=passes, period=str(year)))
+    tot = span_table(pd.DataFrame(rows)).query("species == 'all'").iloc[0]
+    assert tot["flux_kg_ha_yr"] == pytest.approx(15.0)
+    assert tot["years_used"] == "2019 2020" and tot["years_excluded"] == "2021"
+    assert tot["status"] == "flagged"

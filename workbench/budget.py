@@ -273,6 +273,17 @@ def _wet_component(w, sp, options, w_status, w_fail):
                 soft |= hit
                 note = np.where(hit, _join(note, text), note)
     status = np.where(soft & np.isin(status, ("complete", "filled")), "flagged", status)
+    # the ion itself measured in too small a share of the precipitation (another ion
+    # may have carried the period's completeness): a completeness failure
+    low_ion = np.zeros(d.shape, bool)
+    if "ion_valid_precip_fraction" in v and sp in list(w["ion"].values):
+        frac = w["ion_valid_precip_fraction"].sel(ion=sp).transpose("site", "period").values
+        need = json.loads(w.attrs.get("wet_options", "{}")).get("min_valid_precip_fraction", 0.7)
+        low_ion = np.isfinite(frac) & (frac < need) & (frac > 0) & (w_status != "missing")
+        pct = np.round(100 * np.nan_to_num(frac), 1).astype(str)
+        note = np.where(low_ion, _join(note, np.char.add(np.char.add(
+            f"{sp} valid for ", pct), " % of the precipitation only")), note)
+        status = np.where(low_ion, "flagged", status)
     precip = v["precipitation"].values if "precipitation" in v else np.full(d.shape, np.nan)
     gone = ~np.isfinite(d) & (status != "missing")
     status = np.where(gone, "missing", status).astype(object)
@@ -281,7 +292,7 @@ def _wet_component(w, sp, options, w_status, w_fail):
                                  "no precipitation depth"), note)
     note = np.where((status == "missing") & (note == ""), "no precipitation samples in the "
                     "period", note)
-    return status, note, d, w_fail & (status != "missing")
+    return status, note, d, (w_fail | low_ion) & (status != "missing")
 
 
 def _season_ok(dry: xr.Dataset, season_cov, periods, options):
