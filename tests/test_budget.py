@@ -385,7 +385,8 @@ def test_site_without_sodium_falls_back_and_the_total_says_so(tmp_path):
     assert so4["flux_kg_ha"] == pytest.approx(wet_s_mol * 32.06e-3 * 1e4, rel=1e-6)
     tot = _get(t, "S", "total", "all")
     assert "SO4" in tot["flagged_components"].split()
-    assert tot["flux_kg_ha"] == pytest.approx(so4["flux_kg_ha"] + _get(t, "S", "dry", "all")["flux_kg_ha"])
+    dry = _get(t, "S", "dry", "all")["flux_kg_ha"]
+    assert tot["flux_kg_ha"] == pytest.approx(so4["flux_kg_ha"] + dry)
 
 
 def test_an_ion_measured_in_few_samples_is_flagged(tmp_path):
@@ -412,12 +413,14 @@ def test_span_uses_a_year_flagged_only_for_kept_samples():
     uses it and says flagged; a year failing completeness is still excluded."""
     from workbench.tables import span_table
     rows = []
-    for year, value, status, passes in ((2019, 10.0, "complete", True), (2020, 20.0, "flagged", True),
+    for year, value, status, passes in ((2019, 10.0, "complete", True),
+                                        (2020, 20.0, "flagged", True),
                                         (2021, 90.0, "flagged", False)):
         for pathway, species in (("wet", "SO4"), ("total", "all")):
             rows.append(dict(site="a", receptor="grass", period_start=pd.Timestamp(f"{year}-01-01"),
                              period_end=pd.Timestamp(f"{year + 1}-01-01"), element="S",
-                             pathway=pathway, species=species, flux_kg_ha=value, flux_eq_ha=value * 62.4,
+                             pathway=pathway, species=species, flux_kg_ha=value,
+                             flux_eq_ha=value * 62.4,
                              flux_kg_ha_yr=value, flux_eq_ha_yr=value * 62.4, completeness=0.9,
                              status=status, passes=passes, period=str(year)))
     tot = span_table(pd.DataFrame(rows)).query("species == 'all'").iloc[0]
