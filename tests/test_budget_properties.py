@@ -71,7 +71,15 @@ def _nss(d):
     sc.write_text(sc.read_text().replace('sulfate_basis = "total"', 'sulfate_basis = "nss"'))
 
 
+def _roughness(d, value):
+    _model(d)
+    sc = d / "scenario.toml"
+    sc.write_text(sc.read_text() + f"\n[sites.alpha]\nroughness_length_m = {value}\n")
+
+
 MUTATIONS = {
+    "roughness 0": lambda d: _roughness(d, 0.0),
+    "roughness negative": lambda d: _roughness(d, -0.5),
     "temperature masked": lambda d: _met(d, "temperature [degC]", ""),
     "temperature masked one week": lambda d: _met(d, "temperature [degC]", "", slice(0, 168)),
     "pressure masked, NO2 in ppb": lambda d: (_add_no2(d), _met(d, "pressure [hPa]", "")),
