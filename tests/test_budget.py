@@ -279,3 +279,151 @@ SO2 = 0.5
         assert row["air_coverage"] == pytest.approx(row["completeness"])
         assert 0.7 <= row["air_coverage"] < 0.8
         assert row["status"] == expected
+
+
+def _model_case(tmp_path, met_change=None, no2=False):
+    """The tiny scenario with the velocity model instead of fixed Vd (NO2 in ppb if
+    asked) and the met file changed by `met_change`."""
+    sc = _write(tmp_path)
+    sc.write_text(sc.read_text().split("[dry.fixed_velocity]")[0])
+    if no2:
+        air = (tmp_path / "air.csv").read_text().splitlines()
+        air[1] += ",NO2 [ppb]"
+        air[2:] = [ln + ",5.0" for ln in air[2:]]
+        (tmp_path / "air.csv").write_text("\n".join(air) + "\n")
+    if met_change:
+        met = pd.read_csv(tmp_path / "met.csv")
+        met_change(met)
+        met.to_csv(tmp_path / "met.csv", index=False)
+    written, _, _ = run_scenario(sc, tmp_path / "out", quiet=True)
+    return pd.read_csv(written["budget.csv"])
+
+
+def test_no_velocity_is_missing_not_zero(tmp_path):
+    """A masked temperature leaves no Vd for any hour: the dry components are missing
+    with the reason, never 0.0 complete, and the totals name them."""
+    t = _model_case(tmp_path, lambda m: m.__setitem__("temperature [degC]", np.nan), no2=True)
+    for el, sp in (("S", "SO2"), ("N", "HNO3"), ("N", "NO2")):
+        row = _get(t, el, "dry", sp)
+        assert row["status"] == "missing" and np.isnan(row["flux_kg_ha"])
+        assert "no deposition velocity" in row["note"]
+    assert "SO2" in _get(t, "S", "total", "all")["missing_components"].split()
+    assert _get(t, "S", "dry", "all")["status"] == "missing"
+    assert _get(t, "S", "wet", "SO4")["status"] == "complete"
+
+
+def test_masked_pressure_makes_a_mixing_ratio_missing(tmp_path):
+    """NO2 in ppb needs the molar density of air: with pressure masked it is missing
+    (SO2 in ug/m3 is not touched)."""
+    t = _model_case(tmp_path, lambda m: m.__setitem__("pressure [hPa]", np.nan), no2=True)
+    row = _get(t, "N", "dry", "NO2")
+    assert row["status"] == "missing" and np.isnan(row["flux_kg_ha"])
+    assert "molar density of air" in row["note"]
+    assert _get(t, "S", "dry", "SO2")["status"] == "complete"
+    assert _get(t, "S", "dry", "SO2")["flux_kg_ha"] > 0
+
+
+def test_free_acidity_precipitation_and_pwm_outputs(tmp_path):
+    """H+ closes each sample's balance (2 SO4 + NO3 - NH4 ueq/L: 45, 15, 90); its PWM
+    is (45 x 10 + 15 x 20 + 90 x 5) / 35 = 34.29 umol/L, pH 4.465; H+ deposited is
+    34.29 umol/L x 35 mm = 1.2 mmol m-2 = 12 eq/ha (1 eq per mol H+).  The PWM of SO4
+    is (20 x 10 + 10 x 20 + 40 x 5) / 35 = 17.14 umol/L (arithmetic)."""
+    sc = _write(tmp_path)
+    written, _, _ = run_scenario(sc, tmp_path / "out", quiet=True)
+    t = pd.read_csv(written["budget.csv"])
+    so4 = _get(t, "S", "wet", "SO4")
+    assert so4["precipitation_mm"] == pytest.approx(35.0)
+    assert so4["pwm_umol_L"] == pytest.approx(600 / 35, rel=1e-6)
+    h_pwm = (45 * 10 + 15 * 20 + 90 * 5) / 35
+    assert so4["pH_pwm"] == pytest.approx(-np.log10(h_pwm * 1e-6), abs=1e-3)
+    assert so4["wet_H_eq_ha"] == pytest.approx(12.0, rel=1e-3)   # pH given to 4 decimals
+    s = pd.read_csv(written["summary.csv"]).iloc[0]
+    assert s["precipitation_mm"] == pytest.approx(35.0)
+    assert s["wet_H_eq_ha"] == pytest.approx(12.0, rel=1e-3)
+    assert s["pwm_NO3_umol_L"] == pytest.approx((30 * 10 + 15 * 20 + 60 * 5) / 35)
+    assert s["S_total_kg_ha"] == pytest.approx(_get(t, "S", "total", "all")["flux_kg_ha"])
+    assert s["N_total_kg_ha"] == pytest.approx(_get(t, "N", "total", "all")["flux_kg_ha"])
+    import xarray as xr
+    with xr.open_dataset(written["budget.nc"]) as nc:
+        assert float(nc["precipitation"].item()) == pytest.approx(35.0)
+        assert nc["pwm"].attrs["units"] == "mol m-3"
+        assert float(nc["pH_pwm"].item()) == pytest.approx(so4["pH_pwm"])
+
+
+def test_summary_lists_only_configured_pairs(tmp_path):
+    """A second site on another land use adds a receptor: summary.csv keeps the pairs
+    each site asks for (those of budget.csv), not every site x receptor."""
+    sc = _write(tmp_path)
+    (tmp_path / "sites.toml").write_text(SITES + SITES.replace('"alpha"', '"beta"').replace(
+        '"grass"', '"deciduous_forest"').replace("canopy_height_m = 0.1", "canopy_height_m = 20.0")
+        .replace("wind_height_m = 10.0", "wind_height_m = 30.0")
+        .replace("sampler_height_m = 3.0", "sampler_height_m = 25.0"))
+    written, result, _ = run_scenario(sc, tmp_path / "out", quiet=True)
+    assert result.budget.sizes["receptor"] == 2
+    s = pd.read_csv(written["summary.csv"])
+    t = pd.read_csv(written["budget.csv"])
+    t = t[t["period"].astype(str) != "span"]
+    pairs = set(zip(s["site"], s["receptor"]))
+    assert pairs == set(zip(t["site"], t["receptor"]))
+    assert pairs == {("alpha", "grass"), ("beta", "deciduous_forest")}
+
+
+def test_site_without_sodium_falls_back_and_the_total_says_so(tmp_path):
+    """nss basis, no Na at the site: wet SO4 is total SO4, flagged with the reason, and
+    the S total keeps it and names it in flagged_components (it used to drop it)."""
+    sc = _write(tmp_path)
+    sc.write_text(sc.read_text().replace('sulfate_basis = "total"', 'sulfate_basis = "nss"'))
+    precip = tmp_path / "precip.csv"
+    lines = precip.read_text().splitlines()
+    precip.write_text("\n".join(ln.rsplit(",", 1)[0] + "," for ln in lines[1:])
+                      .join([lines[0] + "\n", "\n"]))
+    written, _, _ = run_scenario(sc, tmp_path / "out", quiet=True)
+    t = pd.read_csv(written["budget.csv"])
+    so4 = _get(t, "S", "wet", "SO4")
+    assert so4["status"] == "flagged" and "total SO4 used" in so4["note"]
+    wet_s_mol = sum(c * p for c, p in zip(SO4_UMOL, GAUGE) if p > 0) * 1e-6
+    assert so4["flux_kg_ha"] == pytest.approx(wet_s_mol * 32.06e-3 * 1e4, rel=1e-6)
+    tot = _get(t, "S", "total", "all")
+    assert "SO4" in tot["flagged_components"].split()
+    dry = _get(t, "S", "dry", "all")["flux_kg_ha"]
+    assert tot["flux_kg_ha"] == pytest.approx(so4["flux_kg_ha"] + dry)
+
+
+def test_an_ion_measured_in_few_samples_is_flagged(tmp_path):
+    """SO4 blank in the 20 mm week: it stands for 15 of 35 mm (43 % < 70 %), so wet SO4
+    fails completeness (flagged, passes false) while NO3 and NH4 stay complete."""
+    sc = _write(tmp_path)
+    precip = tmp_path / "precip.csv"
+    lines = precip.read_text().splitlines()
+    cells = lines[3].split(",")
+    cells[6] = ""                                   # SO4 of the third week (20 mm)
+    lines[3] = ",".join(cells)
+    precip.write_text("\n".join(lines) + "\n")
+    written, _, _ = run_scenario(sc, tmp_path / "out", quiet=True)
+    t = pd.read_csv(written["budget.csv"])
+    so4 = _get(t, "S", "wet", "SO4")
+    assert so4["status"] == "flagged" and not so4["passes"]
+    assert "SO4 valid for 42.9 % of the precipitation only" in so4["note"]
+    assert _get(t, "N", "wet", "NO3")["status"] == "complete"
+    assert not _get(t, "S", "total", "all")["passes"]
+
+
+def test_span_uses_a_year_flagged_only_for_kept_samples():
+    """A year flagged for kept flagged samples passes completeness (passes true): the span
+    uses it and says flagged; a year failing completeness is still excluded."""
+    from workbench.tables import span_table
+    rows = []
+    for year, value, status, passes in ((2019, 10.0, "complete", True),
+                                        (2020, 20.0, "flagged", True),
+                                        (2021, 90.0, "flagged", False)):
+        for pathway, species in (("wet", "SO4"), ("total", "all")):
+            rows.append(dict(site="a", receptor="grass", period_start=pd.Timestamp(f"{year}-01-01"),
+                             period_end=pd.Timestamp(f"{year + 1}-01-01"), element="S",
+                             pathway=pathway, species=species, flux_kg_ha=value,
+                             flux_eq_ha=value * 62.4,
+                             flux_kg_ha_yr=value, flux_eq_ha_yr=value * 62.4, completeness=0.9,
+                             status=status, passes=passes, period=str(year)))
+    tot = span_table(pd.DataFrame(rows)).query("species == 'all'").iloc[0]
+    assert tot["flux_kg_ha_yr"] == pytest.approx(15.0)
+    assert tot["years_used"] == "2019 2020" and tot["years_excluded"] == "2021"
+    assert tot["status"] == "flagged"

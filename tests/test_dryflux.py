@@ -151,3 +151,34 @@ def test_fill_diurnal_falls_back_to_all_years():
     filled, was = fill_diurnal(holed)
     assert int(was.sum()) == march_2021.sum()
     np.testing.assert_allclose(filled[0, 0, march_2021], base[march_2021])
+
+
+def test_week_without_vd_adds_no_hours_and_a_month_without_vd_is_nan():
+    """Four weekly concentrations; Vd missing (NaN, unfillable) through the second week:
+    that week adds neither deposition nor hours, so the month is the three other weeks
+    x 4/3 (arithmetic), with concentration coverage 1 and flux hours 3/4.  With no Vd
+    at all the month is NaN, never 0."""
+    from workbench.dryflux import share_to_periods
+    hours = 24 * 28
+    v = np.full(hours, 0.002)
+    v[24 * 7:24 * 14] = np.nan
+    vd = _vd(v, start="2021-02-01T01:00")
+    air = _air([("a", f"2021-02-{d:02d}", f"2021-02-{d + 7:02d}" if d < 22 else "2021-03-01",
+                 1e-8) for d in (1, 8, 15, 22)])
+    periods = make_periods("2021-02-01", "2021-03-01", "month")
+    rows, cs = period_deposition(air, "SO2", vd, None)
+    assert np.isnan(rows["deposition"].values[1, 0])
+    out = to_periods(rows, cs, ["a"], periods, vd["time"].values)
+    week = 1e-8 * 0.002 * 7 * 86400
+    assert out["deposition"].values[0, 0, 0] == pytest.approx(3 * week * 4 / 3)
+    assert out["coverage"].values[0, 0] == pytest.approx(1.0)
+    r = {k: rows[k].values for k in ("hour_start", "hour_end", "deposition", "start", "end")}
+    _, _, _, flux_h = share_to_periods(np.zeros(4, int), r["hour_start"], r["hour_end"],
+                                       r["deposition"], cs, 1, periods, vd["time"].values,
+                                       r["start"], r["end"])
+    assert flux_h[0, 0, 0] == pytest.approx(21 * 24)
+    none = _vd(np.full(hours, np.nan), start="2021-02-01T01:00")
+    rows, cs = period_deposition(air, "SO2", none, None)
+    out = to_periods(rows, cs, ["a"], periods, none["time"].values)
+    assert np.isnan(out["deposition"].values[0, 0, 0])
+    assert out["coverage"].values[0, 0] == pytest.approx(1.0)

@@ -16,15 +16,17 @@ chain's free acidity H+).
 from __future__ import annotations
 
 import json
+import warnings
 from dataclasses import asdict, dataclass, field
 
 import numpy as np
 import pandas as pd
 import xarray as xr
 
+from .budgetstatus import dry_status, join_notes, wet_component, wet_outputs
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
-from .units import element_deposition_in
+from .units import deposition_in, element_deposition_in
 
 #: (element, pathway, species, source variable) of every budget component, in order.
 COMPONENTS = (
@@ -43,8 +45,12 @@ FRACTIONS = {
     "wet_gauge_fraction": "fraction of the period with a valid gauge record",
     "wet_coverage_fraction": "fraction of the period covered by valid or dry samples",
     "wet_valid_precip_fraction": "fraction of the precipitation with valid chemistry",
+    "wet_flagged_precip_fraction": "fraction of the precipitation carried by kept samples "
+                                   "that failed a check (flagged)",
     "air_coverage": "fraction of the period's hours with a concentration",
     "vd_coverage": "fraction of the period's hours with a modelled (not filled) Vd",
+    "flux_coverage": "fraction of the period's hours with a concentration and a Vd "
+                     "(and the air density for a mixing ratio)",
 }
 
 #: What the budget leaves out, with an order of magnitude where the literature gives one
@@ -167,14 +173,6 @@ def annual_factor(periods: pd.DataFrame) -> np.ndarray:
 
 # ------------------------------------------------------------------------------ assembly
 
-def _dry_status(coverage, vd_cov, filled_share, measured, season_ok, options):
-    status = np.full(coverage.shape, "complete", dtype=object)
-    status = np.where(filled_share > 1 - options.min_vd_coverage, "filled", status)
-    status = np.where((coverage < options.min_air_coverage) | ~season_ok, "flagged", status)
-    status = np.where(~np.isfinite(vd_cov) | (coverage <= 0), "missing", status)
-    return np.where(measured, status, "missing")
-
-
 def _season_ok(dry: xr.Dataset, season_cov, periods, options):
     """(site, period, species): every season has concentrations, for year periods."""
     ok = np.ones(dry["coverage"].shape, bool)
@@ -241,6 +239,8 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     #: the fractions behind `completeness`, per component (NaN where not applicable)
     fractions = {name: np.full((n_s, n_r, n_p, n_c), np.nan) for name in FRACTIONS}
     comp_note = np.full((n_s, n_r, n_p, n_c), "", dtype=object)
+    #: a present component fails completeness (flagged for coverage, not for a flag)
+    fails = np.zeros((n_s, n_r, n_p, n_c), bool)
     active = np.array([[r in catalogue[s].surfaces for r in receptors] for s in sites])
     bulk = np.array([catalogue[s].collector == "bulk" for s in sites])
     notes = []
@@ -250,6 +250,8 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             wet.reindex(site=sites, period=labels)
         w_status = w.variables["status"].values.astype(object)
         w_status = np.where(pd.isna(w_status), "missing", w_status)
+        w_fail = (w.variables["completeness_failed"].values.astype(bool)
+                  if "completeness_failed" in w.variables else w_status == "flagged")
         w_frac = np.fmin(np.fmin(w.variables["gauge_fraction"].values, w.variables["coverage_fraction"].values),
                          w.variables["valid_precip_fraction"].values)
     if dry is not None:
@@ -257,30 +259,39 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
         d_species = list(dr.variables["species"].values)
         d_dep, d_cov = dr.variables["deposition"].values, dr.variables["coverage"].values
         d_vdc, d_fs, d_meas = dr.variables["vd_coverage"].values, dr.variables["vd_filled_share"].values, dr.variables["measured"].values
+        d_fc = (dr.variables["flux_coverage"].values if "flux_coverage" in dr.variables
+                else np.where(np.isfinite(d_dep), d_cov[:, None], 0.0))
+        d_ratio = (dr.variables["mixing_ratio"].values if "mixing_ratio" in dr.variables
+                   else np.zeros(len(d_species), bool))
         d_sok = _season_ok(dry, season_cov, periods, options)
     for j, (el, path, sp) in enumerate(comps):
         if path == "wet":
             if wet is None:
+                comp_note[..., j] = "no precipitation chemistry input"
                 continue
-            name = f"dep_nss{sp}" if (sp == "SO4" and options.sulfate_basis == "nss"
-                                      and "dep_nssSO4" in wet) else f"dep_{sp}"
-            if name not in wet:
+            st, note, d, fl = wet_component(w, sp, options, w_status, w_fail)
+            if d is None:
+                comp_note[..., j] = f"no {sp} column in the precipitation chemistry"
                 continue
-            d = w.variables[name].values.astype(float)
             if options.bulk_correction == "scale_wet":
                 d = np.where(bulk[:, None], d * options.bulk_wet_factor, d)
+                note = np.where(bulk[:, None], join_notes(note, f"bulk deposition x "
+                                                     f"{options.bulk_wet_factor:g} "
+                                                     "(bulk_correction scale_wet)"), note)
             dep[:, :, :, j] = d[:, None, :]
-            status[:, :, :, j] = w_status[:, None, :]
+            status[:, :, :, j] = st[:, None, :]
+            fails[:, :, :, j] = fl[:, None, :]
+            comp_note[:, :, :, j] = note[:, None, :]
             compl[:, :, :, j] = w_frac[:, None, :]
             for name, var in (("wet_gauge_fraction", "gauge_fraction"),
                               ("wet_coverage_fraction", "coverage_fraction"),
-                              ("wet_valid_precip_fraction", "valid_precip_fraction")):
-                fractions[name][:, :, :, j] = w.variables[var].values[:, None, :]
-            if options.bulk_correction == "scale_wet" and bulk.any():
-                comp_note[bulk, :, :, j] = (f"bulk deposition x {options.bulk_wet_factor:g} "
-                                            "(bulk_correction scale_wet)")
+                              ("wet_valid_precip_fraction", "valid_precip_fraction"),
+                              ("wet_flagged_precip_fraction", "flagged_precip_fraction")):
+                if var in w.variables:
+                    fractions[name][:, :, :, j] = w.variables[var].values[:, None, :]
         else:
             if dry is None or sp not in d_species:
+                comp_note[..., j] = f"no air concentrations of {sp}"
                 continue
             k = d_species.index(sp)
             if sp in PARTICLES and bulk.any():
@@ -297,7 +308,10 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             fs = d_fs[..., k]
             meas = d_meas[:, None, None, k] * np.ones((1, n_r, n_p), bool)
             sok = d_sok[:, :, k][:, None, :]
-            st = _dry_status(cov, vdc, fs, meas, sok, options)
+            fc = d_fc[..., k]
+            st, fl, why = dry_status(cov, vdc, fs, fc, meas, sok, bool(d_ratio[k]), options)
+            fails[..., j] = fl
+            comp_note[..., j] = why
             if sp in PARTICLES and options.bulk_correction == "exclude_particles":
                 excl = bulk[:, None, None] & np.ones((1, n_r, n_p), bool)
                 # not known apart from the bulk "wet" deposition: missing, and said why
@@ -311,8 +325,9 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                                  "(taken as caught by the collector)")
             dep[:, :, :, j] = d
             status[:, :, :, j] = st
-            compl[:, :, :, j] = np.fmin(cov, vdc)
+            compl[:, :, :, j] = np.fmin(np.fmin(cov, fc), vdc)
             fractions["air_coverage"][:, :, :, j] = cov
+            fractions["flux_coverage"][:, :, :, j] = fc
             fractions["vd_coverage"][:, :, :, j] = vdc
     dep = np.where(status == "missing", np.nan, dep)
     compl = np.where(status == "missing", np.nan, compl)
@@ -328,9 +343,11 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                                  {"units": "1", "long_name": FRACTIONS[name]})
                for name, v in fractions.items()},
             "note": xr.Variable(dims, comp_note),
+            "fails_completeness": xr.Variable(dims, fails & (status != "missing"), {
+                "long_name": "the component fails a completeness criterion"}),
             "status": xr.Variable(dims, status),
             "active": xr.Variable(("site", "receptor"), active)}
-    names, totals = _totals(dep, status, compl, elements, pathways, species)
+    names, totals = _totals(dep, status, compl, elements, pathways, species, fails)
     data.update(totals)
     coords = {"site": sites, "receptor": list(receptors), "period": labels,
               "component": [f"{e}/{p}/{s}" for e, p, s in comps],
@@ -347,6 +364,10 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             tuple("air_species" if d == "species" else d for d in conc.dims), conc.values,
             conc.attrs)
         coords["air_species"] = dr.variables["species"].values
+    if wet is not None:
+        wet_vars, wet_ions = wet_outputs(w)
+        data.update(wet_vars)
+        coords["wet_ion"] = wet_ions
     ds = xr.Dataset(data, coords=coords)               # built once (each assign aligns)
     ds.attrs.update({"options": json.dumps(options.to_dict(), sort_keys=True),
                      "notes": json.dumps(notes),
@@ -361,7 +382,7 @@ def _same_axis(ds: xr.Dataset, dim: str, values) -> bool:
                                                == np.asarray(values, dtype=object)).all())
 
 
-def _totals(dep, status, compl, element, pathway, species):
+def _totals(dep, status, compl, element, pathway, species, fails=None):
     """Per-element sums by pathway and their status, from the component arrays.
 
     Parameters
@@ -370,6 +391,11 @@ def _totals(dep, status, compl, element, pathway, species):
         (..., component) deposition [mol m-2], status (str) and completeness [1].
     element, pathway, species : ndarray of str
         Per component.
+    fails : ndarray of bool, optional
+        (..., component): a present component fails completeness.  A component
+        ``flagged`` for another reason (kept flagged samples, a sulfate basis that
+        fell back) is named in ``total_flagged_components`` but does not make the
+        sum fail.  Default: every ``flagged`` component fails.
 
     Returns
     -------
@@ -377,9 +403,12 @@ def _totals(dep, status, compl, element, pathway, species):
         ``S_wet`` ... ``N_total``.
     variables : dict
         ``total_deposition`` [mol m-2], ``total_status``, ``total_passes``,
-        ``total_missing_components``, ``total_completeness`` [1] as xarray Variables
-        with dims (site, receptor, period, total).
+        ``total_missing_components``, ``total_flagged_components``,
+        ``total_completeness`` [1] as xarray Variables with dims (site, receptor,
+        period, total).
     """
+    if fails is None:
+        fails = np.asarray(status, dtype=object) == "flagged"
     out = {}
     for e in ("S", "N"):
         for p in ("wet", "dry", "total"):
@@ -387,15 +416,20 @@ def _totals(dep, status, compl, element, pathway, species):
             d = dep[..., sel]
             st = status[..., sel]
             total = np.where(np.isfinite(d).any(-1), np.nansum(d, -1), np.nan)
-            combined, passes = combine_status(st)
+            combined, _ = combine_status(st)
+            passes = ~(fails[..., sel] & (st != "missing")).any(-1) & (combined != "missing")
             absent = np.full(total.shape, "", dtype=object)
+            flagged = np.full(total.shape, "", dtype=object)
             for k, spn in enumerate(species[sel]):
                 absent = np.where(st[..., k] == "missing",
                                   np.where(absent == "", spn, absent + " " + spn), absent)
-            with np.errstate(all="ignore"):
+                flagged = np.where(st[..., k] == "flagged",
+                                   np.where(flagged == "", spn, flagged + " " + spn), flagged)
+            with np.errstate(all="ignore"), warnings.catch_warnings():
+                warnings.simplefilter("ignore", RuntimeWarning)     # all-NaN slices
                 worst = (np.nanmin(np.where(st == "missing", np.nan, compl[..., sel]), -1)
                          if (st != "missing").any() else np.full(total.shape, np.nan))
-            out[f"{e}_{p}"] = (total, combined, passes, absent, worst)
+            out[f"{e}_{p}"] = (total, combined, passes, absent, worst, flagged)
     names = list(out)
     dims = ("site", "receptor", "period", "total")
 
@@ -405,10 +439,13 @@ def _totals(dep, status, compl, element, pathway, species):
         "total_deposition": xr.Variable(dims, stack(0), {"units": "mol m-2",
                                                          "long_name": "sum of components (element)"}),
         "total_status": xr.Variable(dims, stack(1)),
-        "total_passes": xr.Variable(dims, stack(2),
-                                    {"long_name": "present components pass completeness"}),
+        "total_passes": xr.Variable(dims, stack(2), {
+            "long_name": "present components pass completeness (a component flagged only "
+                         "for kept flagged samples or a sulfate fallback passes)"}),
         "total_missing_components": xr.Variable(dims, stack(3),
                                                 {"long_name": "components without data"}),
+        "total_flagged_components": xr.Variable(dims, stack(5),
+                                                {"long_name": "components with status flagged"}),
         "total_completeness": xr.Variable(dims, stack(4), {"units": "1"})}
 
 
@@ -469,6 +506,11 @@ def derived(ds: xr.Dataset) -> xr.Dataset:
                                        + element_deposition_in(red, "N", "eq_ha"),
                                        {"units": eq,
                                         "long_name": "potential acidity 2 S + oxidized N + reduced N"})}
+    if "wet_H_deposition" in ds:
+        h = ds["wet_H_deposition"].transpose("site", "period").values
+        out["wet_H_eq_ha"] = (dims, np.broadcast_to(
+            deposition_in(h, "H", "eq_ha")[:, None, :], d.shape[:3]).copy(),
+            {"units": eq, "long_name": "wet deposition of free acidity H+"})
     with np.errstate(invalid="ignore", divide="ignore"):
         for e in ("S", "N"):
             out[f"{e}_dry_share"] = (dims, t(f"{e}_dry") / t(f"{e}_total"), {"units": "1"})

@@ -241,7 +241,10 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
     xarray.Dataset
         Dims (site, receptor, period, species): ``deposition`` [mol m-2] scaled to the
         whole period, ``coverage`` [1] (site, period, species), ``vd_coverage`` and
-        ``vd_filled_share`` [1], ``measured`` (site, species), and the pair brackets.
+        ``vd_filled_share`` [1], ``flux_coverage`` [1] (hours with a concentration
+        and a deposition velocity: 0 where Vd or the air density is missing for every
+        hour, and the deposition is then NaN, never 0), ``measured`` (site, species),
+        ``mixing_ratio`` (species: given as a mixing ratio), and the pair brackets.
     """
     species_list = [c[2] for c in COMPONENTS if c[1] == "dry"]
     sites, receptors, times = rows["sites"], rows["receptors"], rows["times"]
@@ -249,6 +252,8 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
     dep = np.full((n_s, n_r, n_p, n_k), np.nan)
     cov = np.zeros((n_s, n_p, n_k))
     vd_cov = np.full((n_s, n_r, n_p, n_k), np.nan)
+    flux_cov = np.zeros((n_s, n_r, n_p, n_k))
+    ratio = np.zeros(n_k, bool)
     filled_share = np.full((n_s, n_r, n_p, n_k), np.nan)
     conc = np.full((n_s, n_p, n_k), np.nan)
     axes = period_axes(periods)                 # the columns read once
@@ -272,8 +277,10 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
         if sp not in rows["species"]:
             continue
         r = rows["species"][sp]
-        d, c, _ = agg(r)
+        d, c, _, fh = agg(r)
         dep[..., k], cov[..., k] = d, c
+        flux_cov[..., k] = np.clip(fh / np.maximum(hours_p, 1), 0, 1)
+        ratio[k] = r.get("quantity") == "mixing_ratio"
         if r.get("quantity") == "amount_density":
             conc[..., k] = period_mean(r["site_index"], r["start"], r["end"], r["conc"], n_s, axes)
         c_valid, c_fill = rows["vd_cum"][sp]
@@ -284,6 +291,10 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
          "coverage": (("site", "period", "species"), cov, {"units": "1"}),
          "vd_coverage": (("site", "receptor", "period", "species"), vd_cov, {"units": "1"}),
          "vd_filled_share": (("site", "receptor", "period", "species"), filled_share, {"units": "1"}),
+         "flux_coverage": (("site", "receptor", "period", "species"), flux_cov,
+                           {"units": "1", "long_name": "share of the period's hours in sampling "
+                            "periods with a known flux (concentration and Vd)"}),
+         "mixing_ratio": (("species",), ratio),
          "measured": (("site", "species"), rows["measured"]),
          "concentration": (("site", "period", "species"), conc,
                            {"units": "mol m-3", "long_name": "time-weighted mean concentration "

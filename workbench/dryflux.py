@@ -381,9 +381,15 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
 
     Returns
     -------
-    deposition : ndarray (S, R, P) [mol m-2], scaled to the whole period
+    deposition : ndarray (S, R, P) [mol m-2], scaled to the whole period from the
+        hours of the sampling periods that have a flux (NaN where none has one)
     coverage : ndarray (S, P) [1]
+        Share of the period's hours with a concentration.
     covered_hours : ndarray (S, P) [h]
+    flux_hours : ndarray (S, R, P) [h]
+        Hours of the period in sampling periods whose deposition is known (a
+        concentration and at least one hour with a deposition velocity and, for a
+        mixing ratio, the molar density of air); at most `covered_hours`.
     """
     periods = period_axes(periods)
     n_r, n_p = cs.shape[1], len(periods)
@@ -391,6 +397,7 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
     pa, pb = _hour_bounds(times, p_start, p_end)
     dep_out = np.zeros((n_sites, n_r, n_p))
     cov_hours = np.zeros((n_sites, n_p))
+    flux_hours = np.zeros((n_sites, n_r, n_p))
     if len(a):
         lo = np.maximum(a[:, None], pa[None, :])          # (row, period) on the hour axis
         hi = np.minimum(b[:, None], pb[None, :])
@@ -413,16 +420,20 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
             share = np.where(whole > 0, part / whole,
                              ov[:, :, None] / np.maximum(inside, 1)[:, None, None])
         dep = deposition[:, None, :] * share
-        dep = np.where(np.isfinite(dep), dep, 0.0)
+        known = np.isfinite(dep)                          # a row without a flux adds no hours
+        dep = np.where(known, dep, 0.0)
         acc = np.zeros((n_sites, n_p, n_r))
         np.add.at(acc, site_index, dep)
         dep_out = acc.transpose(0, 2, 1)
         np.add.at(cov_hours, site_index, ov)
+        fh = np.zeros((n_sites, n_p, n_r))
+        np.add.at(fh, site_index, np.where(known, ov[:, :, None], 0.0))
+        flux_hours = fh.transpose(0, 2, 1)
     period_hours = periods.hours
     with np.errstate(invalid="ignore", divide="ignore"):
-        scale = np.where(cov_hours > 0, period_hours[None, :] / cov_hours, np.nan)
+        scale = np.where(flux_hours > 0, period_hours[None, None, :] / flux_hours, np.nan)
     coverage = np.clip(cov_hours / np.maximum(period_hours[None, :], 1), 0, 1)
-    return dep_out * scale[:, None, :], coverage, cov_hours
+    return dep_out * scale, coverage, cov_hours, np.minimum(flux_hours, cov_hours[:, None, :])
 
 
 def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
@@ -431,6 +442,10 @@ def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
     An air period that straddles a boundary is split by the sum of hourly (effective)
     Vd in each part.  A reporting period's deposition is the mean flux rate over its
     covered hours times its length:
+
+    with :math:`H_{cov}` the hours of the period in sampling periods whose deposition
+    is known (a row without any hour of Vd, or of air density for a mixing ratio,
+    adds neither deposition nor hours: its period is missing rather than zero):
 
     .. math:: D_P = \\frac{H_P}{H_{cov}} \\sum_a D_a \\frac{\\sum_{h \\in a \\cap P} V_d}
               {\\sum_{h \\in a} V_d}
@@ -456,14 +471,14 @@ def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
         ``covered_hours`` [h].
     """
     si = pd.Index(list(sites)).get_indexer(rows["site"].values.astype(str))
-    dep, coverage, cov_hours = share_to_periods(
+    dep, coverage, cov_hours, _ = share_to_periods(
         si, rows["hour_start"].values, rows["hour_end"].values, rows["deposition"].values,
         cs, len(sites), periods, times, rows["start"].values, rows["end"].values)
     return xr.Dataset(
         {
             "deposition": (("site", "receptor", "period"), dep,
                            {"units": "mol m-2", "long_name": "dry deposition over the period, "
-                            "scaled from the covered hours"}),
+                            "scaled from the hours with a known flux"}),
             "coverage": (("site", "period"), coverage,
                          {"units": "1", "long_name": "share of the period's hours with a concentration"}),
             "covered_hours": (("site", "period"), cov_hours, {"units": "h"}),

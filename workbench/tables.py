@@ -1,11 +1,15 @@
-"""Tidy tables of a budget for export and display (``budget.csv``, the span mean)."""
+"""Tidy tables of a budget for export and display (``budget.csv``, ``summary.csv``,
+the span mean)."""
 from __future__ import annotations
+
+import json
 
 import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .units import element_deposition_in
+from .units import deposition_in, element_deposition_in
+from .wet.qa import UMOL_L_PER_MOL_M3
 
 #: The first columns of budget.csv, in this order (a public interface).
 BUDGET_COLUMNS = ("site", "receptor", "period_start", "period_end", "element", "pathway",
@@ -14,7 +18,7 @@ BUDGET_COLUMNS = ("site", "receptor", "period_start", "period_end", "element", "
 
 
 def _rows(ds: xr.Dataset, dep_var, status_var, compl_var, comp_dim, element, pathway, species,
-          missing_var=None):
+          missing_var=None, flagged_var=None):
     d = ds[dep_var].transpose("site", "receptor", "period", comp_dim)
     n_s, n_r, n_p, n_c = d.shape
     idx = np.indices((n_s, n_r, n_p, n_c)).reshape(4, -1)
@@ -38,12 +42,22 @@ def _rows(ds: xr.Dataset, dep_var, status_var, compl_var, comp_dim, element, pat
         "flux_mmol_m2": mmol, "period": ds["period"].values[idx[2]],
     })
     for extra in ("wet_gauge_fraction", "wet_coverage_fraction", "wet_valid_precip_fraction",
-                  "air_coverage", "vd_coverage", "note"):
+                  "wet_flagged_precip_fraction", "air_coverage", "vd_coverage", "flux_coverage",
+                  "note"):
         if extra in ds and comp_dim in ds[extra].dims:
             frame[extra] = ds[extra].transpose("site", "receptor", "period", comp_dim).values.reshape(-1)
-    frame["missing_components"] = (
-        ds[missing_var].transpose("site", "receptor", "period", comp_dim).values.reshape(-1)
-        if missing_var else "")
+    def flat(var):
+        return ds[var].transpose("site", "receptor", "period", comp_dim).values.reshape(-1)
+    frame["missing_components"] = flat(missing_var) if missing_var else ""
+    frame["flagged_components"] = (flat(flagged_var) if flagged_var and flagged_var in ds
+                                   else "")
+    if "total_passes" in ds and comp_dim == "total":
+        frame["passes"] = flat("total_passes").astype(bool)
+    else:
+        frame["passes"] = ~np.isin(frame["status"].to_numpy(), ("flagged", "missing"))
+    if "fails_completeness" in ds and comp_dim == "component":
+        frame["passes"] = (~flat("fails_completeness").astype(bool)
+                           & (frame["status"] != "missing"))
     active = ds["active"].values[idx[0], idx[1]]
     return frame[active]
 
@@ -59,8 +73,13 @@ def budget_table(ds: xr.Dataset) -> pd.DataFrame:
     tot_names = ds["total"].values
     totals = _rows(ds, "total_deposition", "total_status", "total_completeness", "total",
                    [t.split("_")[0] for t in tot_names], [t.split("_")[1] for t in tot_names],
-                   ["all"] * len(tot_names), "total_missing_components")
+                   ["all"] * len(tot_names), "total_missing_components",
+                   "total_flagged_components")
     frame = pd.concat([comps, totals], ignore_index=True)
+    basis = "nss"
+    if "options" in ds.attrs:
+        basis = json.loads(ds.attrs["options"]).get("sulfate_basis", "nss")
+    frame = _wet_columns(ds, frame, basis)
     order = {"wet": 0, "dry": 1, "total": 2}
     frame["_o"] = frame["pathway"].map(order) + (frame["species"] == "all") * 0.5
     frame = frame.sort_values(["site", "receptor", "period_start", "element", "_o"],
@@ -71,16 +90,21 @@ def budget_table(ds: xr.Dataset) -> pd.DataFrame:
 def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     """The whole span: the mean of the years that pass completeness.
 
-    A year passes for an element when the element's total is neither ``flagged`` nor
-    ``missing`` (``partial`` passes: it says which components are absent, not that the
-    present ones are incomplete).  The rows list the years used and excluded.
+    A year passes for an element when the element's total passes completeness (the
+    ``passes`` column; without it, a total neither ``flagged`` nor ``missing``):
+    ``partial`` passes (it says which components are absent, not that the present
+    ones are incomplete), and so does a total ``flagged`` only because kept samples
+    failed a check or the sulfate basis fell back (its span row stays ``flagged``).
+    The rows list the years used and excluded.
     """
     t = year_table.copy()
     t["year"] = t["period_start"].dt.year
     tot = t[(t["pathway"] == "total") & (t["species"] == "all")]
-    ok = tot.assign(passes=~tot["status"].isin(["flagged", "missing"]))[
-        ["site", "receptor", "element", "year", "passes"]]
-    t = t.merge(ok, on=["site", "receptor", "element", "year"], how="left")
+    passes = (tot["passes"].astype(bool) if "passes" in tot
+              else ~tot["status"].isin(["flagged", "missing"]))
+    ok = tot.assign(passes=passes)[["site", "receptor", "element", "year", "passes"]]
+    t = t.drop(columns=["passes"], errors="ignore").merge(
+        ok, on=["site", "receptor", "element", "year"], how="left")
     keys = ["site", "receptor", "element", "pathway", "species"]
     used = t[t["passes"]]
     if used.empty:
@@ -88,16 +112,17 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
         return pd.DataFrame(columns=cols)
     rank = {"complete": 0, "filled": 1, "partial": 2, "flagged": 2, "missing": 3}
     used = used.assign(_rank=used["status"].map(rank).fillna(2),
-                       _missing=(used["status"] == "missing").astype(int))
+                       _missing=(used["status"] == "missing").astype(int),
+                       _flagged=(used["status"] == "flagged").astype(int))
     g = used.groupby(keys, sort=False)
     agg = g.agg(period_start=("period_start", "min"), period_end=("period_end", "max"),
                 flux_kg_ha_yr=("flux_kg_ha_yr", "mean"), flux_eq_ha_yr=("flux_eq_ha_yr", "mean"),
                 completeness=("completeness", "min"), _rank=("_rank", "max"),
-                _missing=("_missing", "mean")).reset_index()
-    agg["status"] = np.select([agg["_missing"] == 1, agg["_missing"] > 0, agg["_rank"] >= 2,
-                               agg["_rank"] == 1], ["missing", "partial", "partial", "filled"],
-                              "complete")
-    agg = agg.drop(columns=["_rank", "_missing"])
+                _missing=("_missing", "mean"), _flagged=("_flagged", "max")).reset_index()
+    agg["status"] = np.select([agg["_missing"] == 1, agg["_missing"] > 0, agg["_flagged"] > 0,
+                               agg["_rank"] >= 2, agg["_rank"] == 1],
+                              ["missing", "partial", "flagged", "partial", "filled"], "complete")
+    agg = agg.drop(columns=["_rank", "_missing", "_flagged"])
     by = ["site", "receptor", "element"]
     years = ok.groupby(by + ["passes"])["year"].apply(
         lambda y: " ".join(str(v) for v in sorted(set(y)))).unstack("passes")
@@ -110,3 +135,94 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     agg["period"] = "span"
     cols = list(BUDGET_COLUMNS) + ["period", "years_used", "years_excluded"]
     return agg[cols]
+
+
+def _wet_columns(ds: xr.Dataset, frame: pd.DataFrame, basis: str) -> pd.DataFrame:
+    """Add the wet chain's period values to the wet rows of a budget table.
+
+    ``precipitation_mm`` [mm], ``pwm_umol_L`` (precipitation-weighted mean of the
+    row's ion [umol L-1]; non-sea-salt for SO4 on the nss basis; NaN on the sums),
+    ``pH_pwm`` [1] and ``wet_H_eq_ha`` (free acidity H+ deposited [eq ha-1]).
+    """
+    cols = ("precipitation_mm", "pwm_umol_L", "pH_pwm", "wet_H_eq_ha")
+    if "precipitation" not in ds:
+        return frame.assign(**{c: np.nan for c in cols})
+    sites = pd.Index(ds["site"].values.astype(str))
+    periods = pd.Index(ds["period"].values.astype(str))
+    si = sites.get_indexer(frame["site"].astype(str))
+    pi = periods.get_indexer(frame["period"].astype(str))
+    wet = (frame["pathway"] == "wet").to_numpy() & (si >= 0) & (pi >= 0)
+    s, p = np.where(wet, si, 0), np.where(wet, pi, 0)
+
+    def pick(var):
+        return np.where(wet, ds[var].transpose("site", "period").values[s, p], np.nan)
+    out = {"precipitation_mm": pick("precipitation"), "pH_pwm": pick("pH_pwm")}
+    h = pick("wet_H_deposition")
+    out["wet_H_eq_ha"] = deposition_in(h, "H", "eq_ha")
+    ions = list(ds["wet_ion"].values.astype(str)) if "wet_ion" in ds.coords else []
+    want = frame["species"].astype(str).to_numpy().copy()
+    if basis == "nss":
+        want = np.where((want == "SO4") & ("nssSO4" in ions), "nssSO4", want)
+    k = pd.Index(ions).get_indexer(want) if ions else np.full(len(frame), -1)
+    pwm = ds["pwm"].transpose("site", "period", "wet_ion").values if ions else None
+    out["pwm_umol_L"] = (np.where(wet & (k >= 0), pwm[s, p, np.clip(k, 0, None)], np.nan)
+                         * UMOL_L_PER_MOL_M3 if ions else np.full(len(frame), np.nan))
+    return frame.assign(**out)
+
+
+def summary_table(result) -> pd.DataFrame:
+    """summary.csv: one row per configured (site, receptor) pair and period.
+
+    Only the surfaces a site asks for (the ``active`` pairs of the budget); the
+    derived quantities (oxidized and reduced N, potential acidity, shares, the dry
+    N bracket), the S and N totals with their status and the components they
+    lack or flag, and the wet chain's precipitation depth [mm], pH of the
+    precipitation-weighted mean H+, free acidity deposited [eq ha-1] and the
+    precipitation-weighted mean of each ion [umol L-1].
+
+    Parameters
+    ----------
+    result : workbench.pipeline.Result
+        ``budget`` and ``derived`` Datasets of the run's resolution.
+
+    Returns
+    -------
+    pandas.DataFrame
+    """
+    ds = result.budget
+    frame = result.derived.to_dataframe().reset_index()
+    sites = pd.Index(ds["site"].values.astype(str))
+    recs = pd.Index(ds["receptor"].values.astype(str))
+    periods = pd.Index(ds["period"].values.astype(str))
+    si = sites.get_indexer(frame["site"].astype(str))
+    ri = recs.get_indexer(frame["receptor"].astype(str))
+    pi = periods.get_indexer(frame["period"].astype(str))
+    keep = ds["active"].values[si, ri]
+    frame, si, ri, pi = frame[keep].reset_index(drop=True), si[keep], ri[keep], pi[keep]
+    if "period_start" not in frame:
+        frame.insert(3, "period_start", pd.to_datetime(ds["period_start"].values[pi]))
+        frame.insert(4, "period_end", pd.to_datetime(ds["period_end"].values[pi]))
+    names = list(ds["total"].values.astype(str))
+    order = ("site", "receptor", "period", "total")
+    tot = ds["total_deposition"].transpose(*order).values
+    for e in ("S", "N"):
+        j = names.index(f"{e}_total")
+        v = tot[si, ri, pi, j]
+        frame[f"{e}_total_kg_ha"] = element_deposition_in(v, e, "kg_ha")
+        frame[f"{e}_total_kg_ha_yr"] = frame[f"{e}_total_kg_ha"] * ds["annual_factor"].values[pi]
+        for col, var in (("status", "total_status"), ("missing_components",
+                                                       "total_missing_components"),
+                         ("flagged_components", "total_flagged_components")):
+            if var in ds:
+                frame[f"{e}_total_{col}"] = ds[var].transpose(*order).values[si, ri, pi, j]
+    if "precipitation" in ds:
+        def wet(var):
+            return ds[var].transpose("site", "period").values[si, pi]
+        frame["precipitation_mm"] = wet("precipitation")
+        frame["pH_pwm"] = wet("pH_pwm")
+        frame["wet_status"] = wet("wet_status")
+        frame["wet_flagged_share"] = wet("wet_flagged_share")
+        pwm = ds["pwm"].transpose("site", "period", "wet_ion").values[si, pi]
+        for k, ion in enumerate(ds["wet_ion"].values.astype(str)):
+            frame[f"pwm_{ion}_umol_L"] = pwm[:, k] * UMOL_L_PER_MOL_M3
+    return frame

@@ -17,7 +17,7 @@ import xarray as xr
 
 from . import __version__
 from .runfolder import OutputError, RunFolder, check_out_dir, os_error_message
-from .tables import BUDGET_COLUMNS
+from .tables import BUDGET_COLUMNS, summary_table
 
 __all__ = ["OUTPUT_STEPS", "OutputError", "RunFolder", "atomic_write", "write_run"]
 
@@ -150,11 +150,6 @@ def provenance(scenario, inputs_paths: dict, started: _dt.datetime) -> dict:
         "scenario": scenario.resolved() if scenario is not None else None,
         "inputs": {role: {"path": str(p), "sha256": sha256(p)} for role, p in inputs_paths.items()},
     }
-
-
-def summary_table(result) -> "pd.DataFrame":
-    """The rows of summary.csv (shares, oxidized / reduced N, potential acidity, ...)."""
-    return result.derived.to_dataframe().reset_index()
 
 
 def _csv(frame, path, dates=False):

@@ -140,7 +140,12 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         ``gauge_fraction``, ``coverage_fraction``, ``valid_precip_fraction`` [1];
         counts ``n_samples``, ``n_valid``, ``n_used``, ``n_flagged``,
         ``n_excluded``, ``n_dry``, ``n_gauge_filled``; ``status`` (complete |
-        flagged | filled | missing), ``completeness_reasons``, ``filled``;
+        flagged | filled | missing: ``flagged`` when a completeness criterion fails
+        or when kept samples failed a check), ``completeness_reasons``, ``filled``,
+        ``completeness_failed`` (bool), ``flagged_precip_fraction`` [1] (share of
+        the precipitation carried by kept flagged samples);
+        ``nss<X>_total_used`` and ``nss<X>_clipped`` (bool: no tracer, so the total
+        ion stands in; negative nss clipped at 0);
         ``ion_valid_precip_fraction``, ``ion_n_valid``, ``ion_n_censored``
         (site, period, ion).  The attributes hold the provenance (JSON texts).
 
@@ -253,7 +258,19 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
             filled |= take
             pwm[sp] = np.where(take, clim, pwm[sp])
         fill_n = int(filled.sum())
-    period_status = np.select([missing, filled, failed], ["missing", "filled", "flagged"],
+    # kept samples that failed a check (flagged, not excluded): the period says so
+    is_flagged = used & (status[i] == "flagged")
+    flagged_precip = per(np.where(is_flagged, weight, 0.0))
+    n_flagged_kept = counts["n_flagged"]          # flagged samples are kept (used)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        flagged_share = np.where(precip > 0, flagged_precip / np.where(precip > 0, precip, 1.0),
+                                 np.where(n_flagged_kept > 0, 1.0, 0.0))
+    has_flagged = (n_flagged_kept > 0) & ~missing & ~filled
+    pct = np.round(100 * np.nan_to_num(flagged_share), 1).astype(str)
+    reasons = _join(reasons, has_flagged, np.char.add(np.char.add(np.char.add(
+        n_flagged_kept.astype(str), " flagged samples kept ("), pct), " % of precipitation)"))
+    period_status = np.select([missing, filled, failed, has_flagged],
+                              ["missing", "filled", "flagged", "flagged"],
                               "complete").astype(object)
 
     # --- fluxes and sea salt ------------------------------------------------------------
@@ -275,10 +292,16 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     var("precipitation", precip, "mm", "precipitation depth of all gauge-valid samples")
     var("precipitation_valid", precip_valid, "mm", "precipitation depth with valid chemistry")
     tracer = opt.seasalt_tracer
-    nss = {}
+    nss, nss_state = {}, {}
     if tracer in pwm:
         for ion in seasalt.corrected_ions(tracer, species):
-            nss[f"nss{ion}"] = (seasalt.non_seasalt(pwm[ion], pwm[tracer], ion, tracer), ion)
+            raw = seasalt.non_seasalt(pwm[ion], pwm[tracer], ion, tracer)
+            # no tracer at the site in the period: the total ion stands in (flagged);
+            # more sea salt than the ion itself: the nss part is clipped at 0 (flagged)
+            no_tracer = np.isfinite(pwm[ion]) & ~np.isfinite(pwm[tracer])
+            clipped = np.isfinite(raw) & (raw < 0)
+            nss[f"nss{ion}"] = (np.where(no_tracer, pwm[ion], np.where(clipped, 0.0, raw)), ion)
+            nss_state[f"nss{ion}"] = (no_tracer, clipped)
     for sp in species:
         label = "free acidity H+" if sp == "H" else sp
         var(f"pwm_{sp}", pwm[sp], "mol m-3", f"precipitation-weighted mean of {label}")
@@ -287,6 +310,11 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         var(f"pwm_{name}", values, "mol m-3",
             f"precipitation-weighted mean of non-sea-salt {ion} (tracer {tracer})",
             seasalt_tracer=tracer)
+        no_tracer, clipped = nss_state[name]
+        var(f"{name}_total_used", no_tracer, "", f"no {tracer} in the period: total {ion} "
+            f"used in place of non-sea-salt {ion}")
+        var(f"{name}_clipped", clipped, "", f"sea-salt {ion} from {tracer} exceeds the "
+            f"measured {ion}: non-sea-salt {ion} clipped at 0")
     all_dep = [(sp, sp, pwm[sp]) for sp in species] + [(n, ion, v) for n, (v, ion) in nss.items()]
     for name, ion, values in all_dep:
         dep = flux(values)
@@ -305,6 +333,10 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     for key, values in counts.items():
         var(key, values, "1", f"samples with status {key[2:]}")
     var("n_gauge_filled", n_gauge_filled, "1", "samples with a filled gauge depth")
+    var("flagged_precip_fraction", flagged_share, "1",
+        "share of the period's precipitation carried by kept flagged samples")
+    var("completeness_failed", failed & ~filled & ~missing, "",
+        "the period fails a completeness criterion (not only kept flagged samples)")
     var("status", period_status, "", "complete | flagged | filled | missing")
     var("completeness_reasons", reasons, "", "failed completeness criteria ('; '-joined)")
     var("filled", filled, "", "PWM filled with the multi-year seasonal PWM")

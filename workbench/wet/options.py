@@ -29,6 +29,7 @@ _CHOICES = {
     "on_contamination": ("flag", "exclude"),
     "on_dust": ("flag", "exclude"),
     "on_capture_fail": ("flag", "exclude"),
+    "on_gross_error": ("flag", "exclude"),
     "period_fill": ("none", "seasonal"),
     "seasalt_tracer": ("Na", "Mg", "Cl"),
     "straddle": ("hours", "met"),
@@ -63,6 +64,23 @@ class WetOptions:
     on_dust: str = "flag"
     #: capture ratio outside its range.
     on_capture_fail: str = "flag"
+    #: gross errors: an ion difference beyond `gross_ion_difference` or a
+    #: concentration above its plausible maximum.  Excluded by default (our rule:
+    #: such a value is a unit slip, a sentinel or a typing error, and one such
+    #: sample can dominate a period's PWM).
+    on_gross_error: str = "exclude"
+    #: absolute ion difference [%] beyond which the balance is a gross error: 80 %, the
+    #: cations nine times the anions or the reverse, beyond every tier of the
+    #: acceptance (60 % at most) with room for an incomplete set of measured ions
+    #: (our default).
+    gross_ion_difference: float = 80.0
+    #: plausible maximum of any ion but Na and Cl [mol m-3] (2000 umol/L; our default:
+    #: far above the PWMs of polluted or dusty rain, which stay in the hundreds of
+    #: umol/L; common practice to treat such values as gross errors).
+    max_concentration: float = 2.0
+    #: plausible maximum of Na and Cl [mol m-3] (10 000 umol/L; our default: coastal
+    #: spray-laden samples reach a few thousand umol/L).
+    max_seasalt_concentration: float = 10.0
 
     # --- ion balance and conductivity (WMO GAW Report No. 160, 2004; from memory) ---
     ion_balance_tiers: tuple = GAW_ION_BALANCE_TIERS
@@ -97,6 +115,8 @@ class WetOptions:
 
     # --- contamination screens (our own design; thresholds are our defaults) ----------
     #: biological: K, NH4 and PO4 all at or above these [mol m-3] (10, 100, 1 umol/L).
+    #: Without a PO4 value, K and NH4 alone only flag the sample (farm rain carries
+    #: much NH4 and some K); see docs/methods_wet.md.
     bio_potassium: float = 0.010
     bio_ammonium: float = 0.100
     bio_phosphate: float = 0.001

@@ -213,6 +213,18 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
     ib_fail = ib_eval & (np.abs(idiff) > ib_limit)
     reasons.append(("ion_balance", "ion balance outside acceptance", ib_fail,
                     "exclude" if opt.on_ion_balance_fail == "exclude" else "flag"))
+    # gross errors: beyond every tier of the ion balance, or an implausible value
+    loosest = max(opt.gross_ion_difference, max(lim for _, lim in opt.ion_balance_tiers))
+    gross = ib_eval & (np.abs(idiff) > loosest)
+    too_high = np.zeros(n, bool)
+    for ion in ions:
+        cap = (opt.max_seasalt_concentration if ion in ("Na", "Cl") else opt.max_concentration)
+        too_high |= np.nan_to_num(conc[ion], nan=0.0) > cap
+    gross_effect = "exclude" if opt.on_gross_error == "exclude" else "flag"
+    reasons.append(("gross_ion_balance", f"gross error: |ion difference| above {loosest:g} % "
+                    "(beyond every tier)", gross, gross_effect))
+    reasons.append(("gross_concentration", "gross error: a concentration above its plausible "
+                    "maximum", too_high, gross_effect))
 
     # --- conductivity -------------------------------------------------------------------
     k_calc = qa.conductivity_calculated(eqs)
@@ -248,14 +260,20 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
     # --- contamination screens ----------------------------------------------------------
     cont_effect = "exclude" if opt.on_contamination == "exclude" else "flag"
     if "K" in conc and "NH4" in conc:
-        bio = qa.biological_screen(conc["K"], conc["NH4"], conc.get("PO4"), opt.bio_potassium,
-                                   opt.bio_ammonium, opt.bio_phosphate)
+        po4 = conc.get("PO4")
+        both = qa.biological_screen(conc["K"], conc["NH4"], None, opt.bio_potassium,
+                                    opt.bio_ammonium, opt.bio_phosphate)
+        has_po4 = np.isfinite(po4) if po4 is not None else np.zeros(n, bool)
+        bio = both & has_po4 & (np.where(has_po4, po4, 0.0) >= opt.bio_phosphate)
+        bio_weak = both & ~has_po4      # K and NH4 alone: farm rain too, so flag only
     else:
-        bio = np.zeros(n, bool)
+        bio = bio_weak = np.zeros(n, bool)
     dust = (qa.dust_screen(pH, conc["Ca"], opt.dust_pH, opt.dust_calcium) if "Ca" in conc
             else np.zeros(n, bool))
     reasons.append(("bio", "contamination screen: biological (K, NH4, PO4 high)", bio,
                     cont_effect))
+    reasons.append(("bio_no_po4", "contamination screen: K and NH4 high, PO4 not measured "
+                    "(flagged, not excluded)", bio_weak, "flag"))
     reasons.append(("dust", "contamination screen: soil dust (high pH and Ca)", dust,
                     "exclude" if opt.on_dust == "exclude" else "flag"))
     blank_hit = np.zeros(n, bool)

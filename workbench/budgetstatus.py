@@ -1,0 +1,186 @@
+"""Status, reasons and wet outputs of the budget's components (used by
+:mod:`workbench.budget`).
+
+No status says more than the data: a component is ``missing`` with its reason when
+nothing stands behind its number (no concentration, no hour of deposition velocity, no
+air density for a mixing ratio, no valid value of a wet ion), ``flagged`` when it
+fails completeness or holds something to read with care (kept flagged samples, a
+sulfate basis that fell back, a clipped non-sea-salt value), and the reason is
+written in words (the ``note`` column of budget.csv).
+"""
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+
+def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
+                options):
+    """Status, completeness failure and reason of a dry component.
+
+    Parameters
+    ----------
+    coverage, vd_cov, filled_share, flux_cov : ndarray
+        Share of the period's hours with a concentration, with a modelled Vd, with
+        a filled Vd, and in sampling periods whose flux is known [1].
+    measured, season_ok : ndarray of bool
+    ratio : bool
+        The species is given as a mixing ratio (needs the molar density of air).
+    options : BudgetOptions
+
+    Returns
+    -------
+    status : ndarray of str
+    fails : ndarray of bool
+        A present component fails completeness (status ``flagged``).
+    note : ndarray of str
+        Why a component is missing or flagged ('' otherwise).
+    """
+    vd_any = np.nan_to_num(vd_cov) + np.nan_to_num(filled_share)
+    low_flux = flux_cov < options.min_air_coverage
+    fails = (coverage < options.min_air_coverage) | ~season_ok | low_flux
+    status = np.full(coverage.shape, "complete", dtype=object)
+    status = np.where(filled_share > 1 - options.min_vd_coverage, "filled", status)
+    status = np.where(fails, "flagged", status)
+    note = np.full(coverage.shape, "", dtype=object)
+    note = np.where(low_flux & (flux_cov > 0) & (flux_cov < coverage),
+                    "flux known for part of the sampled hours only (Vd or air density "
+                    "missing in the others)", note)
+    note = np.where(~season_ok & (coverage > 0), "a season without concentrations", note)
+    no_vd = vd_any <= 0
+    why_none = np.where(no_vd, "no deposition velocity for any hour of the period (check the "
+                        "met record and the site's roughness and heights)",
+                        "no molar density of air (temperature or pressure) in the sampled "
+                        "hours: the mixing ratio cannot become a flux" if ratio else
+                        "no hour with both a concentration and a deposition velocity")
+    gone = (coverage > 0) & ~(flux_cov > 0)
+    note = np.where(gone, why_none, note)
+    note = np.where(~(coverage > 0), "no concentration in the period", note)
+    note = np.where(measured, note, "not measured at the site (no valid concentration)")
+    missing = ~measured | ~(coverage > 0) | gone | ~np.isfinite(vd_cov)
+    status = np.where(missing, "missing", status)
+    return status, fails & ~missing, note
+
+
+def join_notes(acc, text):
+    """Append `text` to the '; '-joined notes in `acc` (ndarray of str or str)."""
+    acc = np.asarray(acc, dtype=object)
+    acc = np.where(pd.isna(acc), "", acc)
+    return np.where(acc == "", text, acc + "; " + text).astype(object)
+
+
+def wet_component(w, sp, options, w_status, w_fail):
+    """Deposition, status, completeness failure and note of a wet component.
+
+    Parameters
+    ----------
+    w : xarray.Dataset
+        Wet deposition (site, period) on the budget's axes.
+    sp : str
+        ``SO4``, ``NO3`` or ``NH4``.
+    options : BudgetOptions
+    w_status, w_fail : ndarray
+        Period status of the wet chain and its completeness failure.
+
+    Returns
+    -------
+    status, note : ndarray of str
+    deposition : ndarray [mol m-2] or None (no such column)
+    fails : ndarray of bool
+    """
+    v = w.variables
+    tracer = w.attrs.get("seasalt_tracer", "Na")
+    nss = sp == "SO4" and options.sulfate_basis == "nss"
+    name = f"dep_nss{sp}" if nss and "dep_nssSO4" in v else f"dep_{sp}"
+    if name not in v:
+        return None, None, None, None
+    d = v[name].values.astype(float)
+    reasons = v["completeness_reasons"].values.astype(object) if "completeness_reasons" in v \
+        else np.full(d.shape, "", object)
+    reasons = np.where(pd.isna(reasons), "", reasons).astype(object)   # sites without samples
+    status = w_status.copy()
+    note = np.where(status != "complete", reasons, "").astype(object)
+    soft = np.zeros(d.shape, bool)          # flagged for a reason other than completeness
+    if nss and name == f"dep_{sp}":
+        soft[:] = True
+        note = join_notes(note, f"no {tracer} measured: total {sp} used in place of non-sea-salt "
+                     f"{sp} (sea salt included)")
+    elif nss:
+        for var, text in ((f"nss{sp}_total_used", f"no {tracer} at the site in the period: "
+                           f"total {sp} used in place of non-sea-salt {sp} (sea salt included)"),
+                          (f"nss{sp}_clipped", f"sea-salt {sp} from {tracer} exceeds the "
+                           f"measured {sp}: non-sea-salt {sp} clipped at 0")):
+            if var in v:
+                hit = v[var].values.astype(bool)
+                soft |= hit
+                note = np.where(hit, join_notes(note, text), note)
+    status = np.where(soft & np.isin(status, ("complete", "filled")), "flagged", status)
+    # the ion itself measured in too small a share of the precipitation (another ion
+    # may have carried the period's completeness): a completeness failure
+    low_ion = np.zeros(d.shape, bool)
+    if "ion_valid_precip_fraction" in v and sp in list(w["ion"].values):
+        frac = w["ion_valid_precip_fraction"].sel(ion=sp).transpose("site", "period").values
+        need = json.loads(w.attrs.get("wet_options", "{}")).get("min_valid_precip_fraction", 0.7)
+        low_ion = np.isfinite(frac) & (frac < need) & (frac > 0) & (w_status != "missing")
+        pct = np.round(100 * np.nan_to_num(frac), 1).astype(str)
+        note = np.where(low_ion, join_notes(note, np.char.add(np.char.add(
+            f"{sp} valid for ", pct), " % of the precipitation only")), note)
+        status = np.where(low_ion, "flagged", status)
+    precip = v["precipitation"].values if "precipitation" in v else np.full(d.shape, np.nan)
+    gone = ~np.isfinite(d) & (status != "missing")
+    status = np.where(gone, "missing", status).astype(object)
+    note = np.where(gone, join_notes(note, f"no valid {sp} value in the period's samples" if
+                                 np.all(np.isfinite(precip[gone])) else
+                                 "no precipitation depth"), note)
+    note = np.where((status == "missing") & (note == ""), "no precipitation samples in the "
+                    "period", note)
+    return status, note, d, (w_fail | low_ion) & (status != "missing")
+
+
+def wet_outputs(w: xr.Dataset):
+    """Precipitation depth, precipitation-weighted means, free acidity of the wet chain.
+
+    Parameters
+    ----------
+    w : xarray.Dataset
+        Wet deposition on the budget's (site, period) axes.
+
+    Returns
+    -------
+    variables : dict
+        ``precipitation`` [mm], ``pwm`` (site, period, wet_ion) [mol m-3],
+        ``pH_pwm`` [1] (pH of the PWM of H+), ``wet_H_deposition`` [mol m-2] (free
+        acidity: the PWM of H+ times the depth), ``wet_status`` (the period status of
+        the wet chain) and ``wet_flagged_share`` [1].
+    ions : list of str
+        The ``wet_ion`` coordinate (the ions, H, and non-sea-salt ions).
+    """
+    v = w.variables
+    dims = ("site", "period")
+    ions = [n.removeprefix("pwm_") for n in w.data_vars if n.startswith("pwm_")]
+    shape = v["status"].shape
+    st = v["status"].values.astype(object)
+    st = np.where(pd.isna(st), "missing", st)
+
+    def get(name, units, long_name):
+        vals = v[name].values if name in v else np.full(shape, np.nan)
+        return xr.Variable(dims, vals, {"units": units, "long_name": long_name})
+    out = {
+        "precipitation": get("precipitation", "mm", "precipitation depth of all gauge-valid "
+                             "samples in the period"),
+        "pH_pwm": get("pH_pwm", "1", "pH of the precipitation-weighted mean H+"),
+        "wet_H_deposition": get("dep_H", "mol m-2", "wet deposition of free acidity H+ "
+                                "(precipitation-weighted mean H+ x depth)"),
+        "wet_flagged_share": get("flagged_precip_fraction", "1", "share of the precipitation "
+                                 "carried by kept samples that failed a check"),
+        "wet_status": xr.Variable(dims, st, {"long_name": "status of the wet chain's period"}),
+        "pwm": xr.Variable(dims + ("wet_ion",),
+                           np.stack([v[f"pwm_{i}"].values for i in ions], -1) if ions
+                           else np.zeros(shape + (0,)),
+                           {"units": "mol m-3", "long_name": "precipitation-weighted mean "
+                            "concentration (nss: non-sea-salt)"}),
+    }
+    return out, ions
