@@ -48,3 +48,105 @@ def test_velocities_benchmark_prints_its_sections(scenario, capsys):
     text = capsys.readouterr().out
     for section in ("total", "particles", "gases", "post"):
         assert section in text
+
+
+# --- the two references of the engine's resistance chain ------------------------------------
+
+def _reference_module():
+    sys.path.insert(0, str(ROOT / "benchmarks"))
+    try:
+        import reference_chain
+    finally:
+        sys.path.remove(str(ROOT / "benchmarks"))
+    return reference_chain
+
+
+@pytest.fixture(scope="module")
+def small_case(tmp_path_factory):
+    """ridge (forest, moorland, grass) and mere (wetland, water): 4 days of January and July."""
+    import numpy as np
+    from workbench.drydep import DryOptions, velocities
+    from workbench.io import read_met, read_sites
+    scen = write_demo_subset(tmp_path_factory.mktemp("ref"), ("ridge", "mere"), 2021, 2021)
+    cat = read_sites(scen.parent / "sites.toml")
+    met, _ = read_met(scen.parent / "met.csv.gz", cat)
+    t = met["time"].values
+    keep = (((t >= np.datetime64("2021-01-01T01")) & (t < np.datetime64("2021-01-05")))
+            | ((t >= np.datetime64("2021-07-01T01")) & (t < np.datetime64("2021-07-05"))))
+    met = met.isel(time=np.flatnonzero(keep)).load()
+    surf = cat.surfaces()
+    # a low Ra cap (an allowed option value) so that the cap branch is reached
+    opt = DryOptions(gases=("SO2",), particles=("pSO4",), components=False, ra_cap=150.0)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        eng = velocities(met, surf, opt)
+    return met, surf, opt, eng
+
+
+def test_the_small_case_reaches_the_branches(small_case):
+    """The compared hours hold day and night, dew and rain, open water, floor and cap."""
+    import numpy as np
+    _, surf, _, eng = small_case
+    kind = eng["wet_kind"].values
+    assert (kind == 1).any() and (kind == 2).any() and (kind == 0).any()
+    assert (eng["met_sensible_heat_flux"].values > 0).any()
+    assert (eng["met_sensible_heat_flux"].values <= 0).any()
+    assert "water" in [str(r) for r in surf["receptor"].values]
+    assert eng["ustar_floor_used"].values.any() and eng["ra_cap_used"].values.any()
+    assert eng["ra_height_raised"].values.any()
+    assert len(np.unique(eng["seasonal_category"].values)) >= 2
+    inv_l = 1.0 / eng["obukhov_length"].values
+    assert (inv_l < 0).any() and (inv_l > 0).any()
+
+
+@pytest.mark.parametrize("which", ["scalar", "numba"])
+def test_reference_equals_the_engine(small_case, which):
+    """u*, 1/L, Ra, Rb, Rc and Vd of SO2 and the particle Vd to 1e-9 relative, every hour.
+
+    Every (site, receptor, hour) of the small case is compared (inactive receptors too),
+    NaN where the engine has NaN.  1/L of the engine is 1/obukhov_length (one more
+    rounding).  The references take the mast's u* and H, the cloud cover, the season and
+    the wetness from the engine (see benchmarks/reference_chain.py).
+    """
+    import numpy as np
+    if which == "numba":
+        pytest.importorskip("numba")
+    rc = _reference_module()
+    met, surf, opt, eng = small_case
+    prepared = rc.prepare(met, surf, opt, eng)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        got = rc.run_scalar(prepared) if which == "scalar" else rc.run_numba(prepared)
+    want = rc.engine_columns(eng)
+    assert np.isfinite(want[..., 5]).sum() > 1000
+    for k, name in enumerate(rc.OUTPUTS):
+        np.testing.assert_allclose(got[..., k], want[..., k], rtol=1e-9, atol=0.0, err_msg=name)
+
+
+def test_engine_vs_reference_benchmark_runs(tmp_path, capsys):
+    pytest.importorskip("numba")
+    bench = _load("engine_vs_reference")
+    data = write_demo_subset(tmp_path / "d", ("ridge",), 2021, 2021).parent
+    out = bench.main(["--data", str(data), "--days", "2", "--sizes", "1", "2",
+                      "--scalar-sites", "1", "--json", str(tmp_path / "r.json")])
+    assert [r["site_years"] for r in out["rows"]] == [1, 2]
+    assert all(r["engine_over_scalar"] > 0 and r["engine_over_numba"] > 0 for r in out["rows"])
+    assert "engine/numba" in capsys.readouterr().out
+    assert (tmp_path / "r.json").exists()
+
+
+def test_network_generator_and_guard(tmp_path, capsys):
+    """Generated inputs carry N invented sites; sizes above --max are reported, not run."""
+    import gzip
+    bench = _load("network")
+    scen = bench.make_network(tmp_path / "net", 5, years=1)
+    ids = {ln.split(",", 1)[0] for ln in gzip.open(scen.parent / "met.csv.gz", "rt")
+           if ln[:1] == "n"}
+    assert ids == {f"n{i:04d}" for i in range(5)}
+    assert "n0004-P" in (scen.parent / "precipitation.csv").read_text()
+    assert 'end = "2017-01-01"' in scen.read_text()
+    rows = bench.main(["--sizes", "1", "4", "--years", "1", "--max", "1"])
+    assert rows[0]["status"] == "run" and rows[0]["exit_code"] == 0
+    assert rows[0]["peak_rss_mb"] > 0 and rows[0]["wall_s"] > 0
+    assert rows[1]["status"].startswith("not run")
+    assert "not run" in capsys.readouterr().out

@@ -14,8 +14,8 @@ import numpy as np
 
 from ..constants import BOLTZMANN, GRAVITY, WATER_DENSITY
 from ..surface.air import dynamic_viscosity, kinematic_viscosity, mean_free_path
-from .particles import (_ROW, _SLIP_EXP_MIN, EPSILON_0, GERBER, GROWTH_RH_MAX, M_PER_CM,
-                        SLIP_A, SLIP_B, SLIP_C, _luc_table, _rows, lognormal_nodes)
+from .zhang_tables import (_ROW, _SLIP_EXP_MIN, EPSILON_0, GERBER, GROWTH_RH_MAX, M_PER_CM,
+                           SLIP_A, SLIP_B, SLIP_C, _luc_table, _rows, lognormal_nodes)
 
 
 class ZhangSurface:

@@ -1,0 +1,140 @@
+"""Throughput of the engine against its two references (benchmarks/reference_chain.py).
+
+    python benchmarks/engine_vs_reference.py                 # 1 and 100 site-years
+    python benchmarks/engine_vs_reference.py --sizes 1 --scalar-sites 1 --days 20
+
+The engine is ``workbench.drydep.velocities`` with the gas SO2 and the particle pSO4
+only (its fine mode, fraction 1: the mode of the references), ``components=False``.
+The references compute the same SO2 and particle numbers from the engine's mast u*
+and H, cloud cover, season and wetness (see reference_chain.py); the engine does
+that work as well (sun, the mast's surface layer, season, wetness, the output
+Dataset), so the comparison favours the references.
+
+Inputs: one site-year of the invented demo (default ridge 2021: 3 receptors); N
+site-years are N copies of it with invented site ids, temperature perturbed by
+N(0, 0.5 K) and wind speed by a factor 1 + N(0, 0.05) (seeded), so that the copies
+differ.  Each timing is one run (the engine at 1 site-year: best of 3), wall clock;
+the numba kernel is compiled before it is timed; the scalar loop runs on the first
+``--scalar-sites`` sites of the set only (its rate does not depend on the set size).
+Printed: site-receptor-hours per second (and site-hours per second) of each, and
+the ratios engine/scalar and engine/numba.  Nothing is asserted.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+import time
+import warnings
+from pathlib import Path
+
+import numpy as np
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT))
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+
+
+def site_years(met, surf, n, seed=11):
+    """`n` perturbed copies of the one-site `met` and `surf`, site ids ``t000``... [SI]."""
+    ids = [f"t{i:03d}" for i in range(n)]
+    rng = np.random.default_rng(seed)
+    m = met.isel(site=[0] * n).assign_coords(site=ids)
+    s = surf.isel(site=[0] * n).assign_coords(site=ids)
+    shape = (n, m.sizes["time"])
+    dims = ("site", "time")
+    m = m.transpose("site", "time", ...)
+    m["temperature"] = (dims, m["temperature"].values + rng.normal(0.0, 0.5, shape))
+    m["wind_speed"] = (dims, m["wind_speed"].values * np.maximum(
+        1.0 + rng.normal(0.0, 0.05, shape), 0.5))
+    return m, s
+
+
+def main(argv=None):
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--data", default=str(ROOT / "demo_data"),
+                    help="directory with sites.toml and met.csv.gz")
+    ap.add_argument("--site", default="ridge")
+    ap.add_argument("--year", type=int, default=2021)
+    ap.add_argument("--days", type=int, default=None, help="only the first DAYS of the year")
+    ap.add_argument("--sizes", type=int, nargs="+", default=[1, 100], help="site-years")
+    ap.add_argument("--scalar-sites", type=int, default=2)
+    ap.add_argument("--json", default=None)
+    args = ap.parse_args(argv)
+
+    import reference_chain as rc
+    from workbench.drydep import DryOptions, velocities
+    from workbench.io import read_met, read_sites
+
+    warnings.simplefilter("ignore", RuntimeWarning)
+    data = Path(args.data)
+    cat = read_sites(data / "sites.toml")
+    met, _ = read_met(data / "met.csv.gz", cat)
+    end = (np.datetime64(f"{args.year}-01-01") + np.timedelta64(args.days, "D")
+           if args.days else np.datetime64(f"{args.year + 1}-01-01"))
+    met = met.sel(site=[args.site]).sel(time=slice(np.datetime64(f"{args.year}-01-01T01"), end))
+    met = met[[v for v in met.data_vars if v in (
+        "wind_speed", "temperature", "relative_humidity", "solar_radiation", "precipitation",
+        "pressure", "cloud_cover", "friction_velocity", "sensible_heat_flux", "surface_wet",
+        "snow_cover")]].load()
+    surf = cat.surfaces().sel(site=[args.site])
+    surf = surf.sel(receptor=surf["receptor"].values[surf["active"].values[0]])  # its own
+    opt = DryOptions(gases=("SO2",), particles=("pSO4",), components=False)
+    kernel = rc.numba_kernel()
+    t = time.perf_counter()
+    small = rc.prepare(met.isel(time=slice(0, 48)), surf, opt,
+                       velocities(met.isel(time=slice(0, 48)), surf, opt))
+    rc.run_numba(small)
+    compile_s = time.perf_counter() - t
+    rows = []
+    for n in args.sizes:
+        m, s = site_years(met, surf, n)
+        n_r = s.sizes["receptor"]
+        cells = n * n_r * m.sizes["time"]
+        t = time.perf_counter()
+        eng = velocities(m, s, opt)
+        t_eng = time.perf_counter() - t
+        if n == 1:  # best of 3 for the short run
+            for _ in range(2):
+                t = time.perf_counter()
+                velocities(m, s, opt)
+                t_eng = min(t_eng, time.perf_counter() - t)
+        prep = rc.prepare(m, s, opt, eng)
+        del eng
+        out = np.empty(prep[0][10].shape + (len(rc.OUTPUTS),))
+        t = time.perf_counter()
+        kernel(*prep, out)
+        t_nb = time.perf_counter() - t
+        k = min(args.scalar_sites, n)
+        sub = rc.prepare(m.isel(site=slice(0, k)), s.isel(site=slice(0, k)), opt,
+                         velocities(m.isel(site=slice(0, k)), s.isel(site=slice(0, k)), opt))
+        t = time.perf_counter()
+        rc.run_scalar(sub)
+        t_sc = time.perf_counter() - t
+        cells_sc = k * n_r * m.sizes["time"]
+        row = {"site_years": n, "receptors": n_r, "hours": m.sizes["time"],
+               "engine_cells_per_s": cells / t_eng, "numba_cells_per_s": cells / t_nb,
+               "scalar_cells_per_s": cells_sc / t_sc, "scalar_sites_timed": k,
+               "engine_s": t_eng, "numba_s": t_nb, "scalar_s": t_sc}
+        row["engine_over_scalar"] = row["engine_cells_per_s"] / row["scalar_cells_per_s"]
+        row["engine_over_numba"] = row["engine_cells_per_s"] / row["numba_cells_per_s"]
+        rows.append(row)
+        print(f"{n} site-year(s) x {n_r} receptors x {m.sizes['time']} h "
+              f"({cells} site-receptor-hours):")
+        for who in ("engine", "numba", "scalar"):
+            r = row[f"{who}_cells_per_s"]
+            print(f"  {who:<7} {r / 1e6:9.4f} M site-receptor-hours/s "
+                  f"({r / n_r / 1e6:8.4f} M site-hours/s)"
+                  + (f"  [timed on {k} site(s)]" if who == "scalar" else ""))
+        print(f"  engine/scalar {row['engine_over_scalar']:.1f} x   "
+              f"engine/numba {row['engine_over_numba']:.3f} x   (numba/engine "
+              f"{1 / row['engine_over_numba']:.2f} x)")
+    print(f"numba compile (once, not in the rates): {compile_s:.1f} s")
+    result = {"rows": rows, "numba_compile_s": compile_s}
+    if args.json:
+        Path(args.json).write_text(json.dumps(result, indent=2), encoding="utf-8")
+    return result
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,250 @@
+"""Wall time and peak memory of ``workbench run`` on generated networks of N site-years.
+
+    python benchmarks/network.py                      # 10 and 100 site-years
+    python benchmarks/network.py --sizes 10 100 1000 --max 1000
+    python benchmarks/network.py --profile 100        # cProfile of one 100-site-year run
+
+Inputs are generated into a temporary folder: N/Y invented sites (ids ``n0000``...)
+with Y years each (``--years``, default 2; a size N must be a multiple of Y).  Site i is a
+copy of demo site i mod 4 (its catalogue entry with the new id and name, its hourly
+met, weekly precipitation and weekly air rows of the years 2016 onwards, sampler ids
+renamed ``<id>-P1``...), so every file has the layout of the demo and N/Y sites.
+The demo's deliberate problems are copied with the rows (the run handles them).
+
+Each size runs ``workbench run SCENARIO --out DIR --quiet`` end to end (reading,
+screening, velocities, budget, writing the run folder) in a fresh Python process,
+which reports its wall time (from the start of the command, imports excluded), its CPU
+time (user + system, imports included: on a shared machine the steadier number) and its
+peak resident memory (``resource.getrusage(RUSAGE_SELF).ru_maxrss``).  One run per
+size: timings of a loaded machine are only indicative.  Sizes above ``--max``
+(default 100) are reported "not run"; a size whose estimated memory (60 MB per
+site-year, from the run of 100 site-years in issue 11) exceeds 80 % of the available
+memory is also not run.  Nothing is asserted.
+"""
+from __future__ import annotations
+
+import argparse
+import cProfile
+import gzip
+import io
+import json
+import pstats
+import shutil
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+DEMO = ROOT / "demo_data"
+#: Estimated peak memory per site-year of today's pipeline [MB] (issue 11: +56 MB).
+MB_PER_SITE_YEAR = 60.0
+FIRST_YEAR = 2016
+
+
+def _toml_load(path):
+    try:
+        import tomllib
+    except ModuleNotFoundError:  # Python < 3.11
+        import tomli as tomllib
+    with open(path, "rb") as f:
+        return tomllib.load(f)
+
+
+def _rows_by_site(lines, years, time_col):
+    """Header/comment lines, and data lines by site within the first `years` years."""
+    head, by_site, header = [], {}, None
+    hi = f"{FIRST_YEAR + years}-01-01"
+    for ln in lines:
+        if header is None and (ln.startswith("#") or not ln.strip()):
+            head.append(ln)
+            continue
+        if header is None:
+            header = ln.rstrip("\n").split(",")
+            idx = header.index(time_col)
+            head.append(ln)
+            continue
+        cells = ln.split(",", idx + 1)
+        if cells[idx][:10] < hi:
+            by_site.setdefault(cells[0], []).append(ln)
+    return head, by_site, header
+
+
+def make_network(out_dir, n_sites, years=2) -> Path:
+    """Write sites.toml, met.csv.gz, precipitation.csv, air.csv and scenario.toml.
+
+    Parameters
+    ----------
+    out_dir : path
+    n_sites : int
+        Number of invented sites.
+    years : int
+        Years of record per site (from 2016), at most the demo's 8.
+
+    Returns
+    -------
+    Path
+        The scenario file.
+    """
+    import tomli_w
+    out = Path(out_dir)
+    out.mkdir(parents=True, exist_ok=True)
+    cat = _toml_load(DEMO / "sites.toml")
+    templates = cat["site"]
+    ids = [f"n{i:04d}" for i in range(n_sites)]
+    sites = []
+    for i, sid in enumerate(ids):
+        s = dict(templates[i % len(templates)])
+        s["id"], s["name"] = sid, f"Generated site {i}"
+        sites.append(s)
+    (out / "sites.toml").write_bytes(tomli_w.dumps({"site": sites}).encode("utf-8"))
+
+    def copy(src_lines, time_col, sampler):
+        head, by_site, header = _rows_by_site(src_lines, years, time_col)
+        j = header.index("sampler_id") if sampler else None
+        buf = io.StringIO()
+        buf.writelines(head)
+        for i, sid in enumerate(ids):
+            for ln in by_site[templates[i % len(templates)]["id"]]:
+                cells = ln.split(",")
+                cells[0] = sid
+                if j is not None and cells[j]:
+                    cells[j] = f"{sid}-{cells[j].split('-', 1)[-1]}"
+                buf.write(",".join(cells))
+        return buf.getvalue()
+
+    with gzip.open(DEMO / "met.csv.gz", "rt", encoding="utf-8") as f:
+        met = copy(f, "time", False)
+    with gzip.open(out / "met.csv.gz", "wt", encoding="utf-8", compresslevel=1) as f:
+        f.write(met)
+    for name in ("precipitation.csv", "air.csv"):
+        with open(DEMO / name, encoding="utf-8") as f:
+            (out / name).write_text(copy(f, "start", True), encoding="utf-8")
+    text = (DEMO / "scenario.toml").read_text(encoding="utf-8")
+    text = text.replace('resolution = "year"', f'resolution = "year"\nstart = "{FIRST_YEAR}-01-01"\n'
+                        f'end = "{FIRST_YEAR + years}-01-01"')
+    (out / "scenario.toml").write_text(text, encoding="utf-8")
+    return out / "scenario.toml"
+
+
+def _available_mb():
+    try:
+        for ln in Path("/proc/meminfo").read_text().splitlines():
+            if ln.startswith("MemAvailable:"):
+                return int(ln.split()[1]) / 1024.0
+    except OSError:
+        pass
+    return float("inf")
+
+
+def child(scenario, out_dir):
+    """Run ``workbench run`` in this process; print wall time [s] and peak RSS [MB] as JSON."""
+    import resource
+    sys.path.insert(0, str(ROOT))
+    from workbench.cli import main as cli
+    t = time.perf_counter()
+    code = cli(["run", str(scenario), "--out", str(out_dir), "--quiet"])
+    wall = time.perf_counter() - t
+    use = resource.getrusage(resource.RUSAGE_SELF)
+    print(json.dumps({"exit_code": code, "wall_s": wall, "cpu_s": use.ru_utime + use.ru_stime,
+                      "peak_rss_mb": use.ru_maxrss / 1024.0}))
+
+
+def measure(size, years, work):
+    """Generate a network of `size` site-years and run it in a subprocess; the numbers."""
+    n_sites = size // years
+    t = time.perf_counter()
+    scen = make_network(work / f"net{size}", n_sites, years)
+    gen_s = time.perf_counter() - t
+    proc = subprocess.run([sys.executable, __file__, "--child", str(scen),
+                           str(work / f"out{size}")], capture_output=True, text=True,
+                          cwd=str(ROOT))
+    if proc.returncode != 0:
+        return {"site_years": size, "status": f"failed: {proc.stderr.strip()[-400:]}"}
+    res = json.loads(proc.stdout.strip().splitlines()[-1])
+    met_mb = (work / f"net{size}" / "met.csv.gz").stat().st_size / 1e6
+    return {"site_years": size, "sites": n_sites, "years": years, "status": "run",
+            "generate_s": gen_s, "met_csv_gz_mb": met_mb, **res}
+
+
+def profile(size, years, work, top=10):
+    """cProfile of one in-process run of `size` site-years: the top lines, as text."""
+    scen = make_network(work / f"prof{size}", size // years, years)
+    sys.path.insert(0, str(ROOT))
+    import workbench.drydep as drydep
+    from workbench.cli import main as cli
+    seen = []
+    engine = drydep.velocities
+
+    def recorded(met, surfaces, *a, **k):  # the size of each velocities result
+        ds = engine(met, surfaces, *a, **k)
+        active = surfaces.sel(site=met["site"].values)["active"].values
+        seen.append((dict(ds.sizes), ds.nbytes, float(active.mean()), len(ds.data_vars)))
+        return ds
+
+    drydep.velocities = recorded
+    prof = cProfile.Profile()
+    t = time.perf_counter()
+    prof.runcall(cli, ["run", str(scen), "--out", str(work / f"prof_out{size}"), "--quiet"])
+    wall = time.perf_counter() - t
+    text = []
+    for key in ("cumulative", "tottime"):
+        s = io.StringIO()
+        pstats.Stats(prof, stream=s).strip_dirs().sort_stats(key).print_stats(top)
+        text.append(f"--- sorted by {key} ---\n" + s.getvalue().split("\n\n", 1)[-1])
+    drydep.velocities = engine
+    for sizes, nbytes, active, n_vars in seen:
+        text.append(f"velocities result: {sizes}, {n_vars} variables, {nbytes / 1e9:.2f} GB; "
+                    f"share of (site, receptor) pairs the sites ask for: {active:.2f}")
+    return wall, "\n".join(text)
+
+
+def main(argv=None):
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--sizes", type=int, nargs="+", default=[10, 100], help="site-years")
+    ap.add_argument("--years", type=int, default=2, help="years per site")
+    ap.add_argument("--max", type=int, default=100, help="largest size run (guard)")
+    ap.add_argument("--profile", type=int, default=None, help="profile one run of this size")
+    ap.add_argument("--top", type=int, default=10)
+    ap.add_argument("--json", default=None)
+    ap.add_argument("--child", nargs=2, default=None, help=argparse.SUPPRESS)
+    args = ap.parse_args(argv)
+    if args.child:
+        child(*args.child)
+        return None
+    work = Path(tempfile.mkdtemp(prefix="wb-network-"))
+    rows = []
+    try:
+        if args.profile:
+            wall, text = profile(args.profile, args.years, work, args.top)
+            print(f"profile of {args.profile} site-years (wall {wall:.1f} s under cProfile):")
+            print(text)
+            return {"profile_wall_s": wall, "profile": text}
+        for size in args.sizes:
+            if size % args.years:
+                raise SystemExit(f"size {size} is not a multiple of --years {args.years}")
+            need = MB_PER_SITE_YEAR * size
+            if size > args.max:
+                row = {"site_years": size, "status": f"not run (above --max {args.max})"}
+            elif need > 0.8 * _available_mb():
+                row = {"site_years": size, "status": f"not run (needs about {need:.0f} MB, "
+                       f"{_available_mb():.0f} MB available)"}
+            else:
+                row = measure(size, args.years, work)
+            rows.append(row)
+            if row["status"] == "run":
+                print(f"{size:5d} site-years ({row['sites']} sites x {row['years']} years): "
+                      f"wall {row['wall_s']:7.1f} s, CPU {row['cpu_s']:7.1f} s, peak RSS {row['peak_rss_mb']:7.0f} MB, "
+                      f"exit {row['exit_code']}  (inputs generated in {row['generate_s']:.1f} s)")
+            else:
+                print(f"{size:5d} site-years: {row['status']}")
+    finally:
+        shutil.rmtree(work, ignore_errors=True)
+    if args.json:
+        Path(args.json).write_text(json.dumps(rows, indent=2), encoding="utf-8")
+    return rows
+
+
+if __name__ == "__main__":
+    main()
