@@ -41,6 +41,7 @@ from ..surface.solar import solar_elevation_sine, time_parts
 from . import canopy as _canopy
 from . import gas as _gas
 from . import nh3_bidirectional as _nh3
+from . import particle_fractions as _fractions
 from . import particles as _particles
 from . import seasons as _seasons
 from . import wetness as _wetness
@@ -431,14 +432,10 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                                            "NH3 emission term of the compensation point model")
             out["nh3_compensation_point"] = srt(gp["nh3bd|chi_s"], "mol m-3",
                                                 "NH3 stomatal compensation point chi_s")
-        # each distinct mode once, all of them in one call (shared surface terms)
-        parts = {}
-        for sp in opt.particles:
-            spec = opt.mode_of(sp)
-            parts[sp] = [(frac, mode) for frac, mode in (
-                (spec.fine_fraction, spec.fine), (1.0 - spec.fine_fraction, spec.coarse))
-                if frac > 0.0]
-        modes = list(dict.fromkeys(mode for pp in parts.values() for _, mode in pp))
+        # each distinct mode once, all of them in one call (shared surface terms); the
+        # mass weight of each mode per site (docs/methods_dry.md, particle size split)
+        parts = {sp: _fractions.mode_weights(surf, sp, opt) for sp in opt.particles}
+        modes = list(dict.fromkeys(mode for pp in parts.values() for mode, _ in pp[0]))
         mode_key = {mode: k_state + repr((mode, opt.size_nodes)) for mode in modes}
         known = cache.get("particles", {}) if cache is not None else {}
         todo = [mode for mode in modes if mode_key[mode] not in known]
@@ -447,14 +444,15 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         by_mode = {mode: _stage(cache, "particles", mode_key[mode],
                                 lambda mode=mode: {"vd": new[mode]})["vd"] for mode in modes}
         for sp in opt.particles:
-            spec = opt.mode_of(sp)
+            weights, coarse, source = parts[sp]
             total = 0.0
-            for frac, mode in parts[sp]:
-                total = total + frac * by_mode[mode]
+            for mode, w in weights:
+                total = total + w[:, None, None] * by_mode[mode]
             out[f"vd_{sp}"] = srt(total, "m s-1", f"mass-weighted dry deposition velocity of {sp} "
-                                  "(Zhang et al. 2001)", fine_fraction=spec.fine_fraction,
-                                  fine_mmd_m=spec.fine.mmd, fine_gsd=spec.fine.gsd,
-                                  coarse_mmd_m=spec.coarse.mmd, coarse_gsd=spec.coarse.gsd)
+                                  "(Zhang et al. 2001)", coarse_fraction=coarse.tolist(),
+                                  coarse_fraction_source=", ".join(
+                                      _fractions.SOURCE[int(k)] for k in source),
+                                  modes=repr([(m, float(np.max(w))) for m, w in weights]))
 
     # --- assemble -----------------------------------------------------------------------------
     obukhov = np.where(inv_l == 0, np.inf, 1.0 / np.where(inv_l == 0, 1.0, inv_l))
