@@ -33,7 +33,8 @@ from ..landuse import LAND_USE
 from ..memo import recent
 from ..surface import energy_balance as eb
 from ..surface.aerodynamic import (aerodynamic_resistance, apply_cap, apply_floor,
-                                   reference_height, transfer_ustar)
+                                   coriolis_parameter, reference_height, transfer_ustar,
+                                   transfer_ustar_drag_law)
 from ..surface.air import (air_density, kinematic_viscosity, specific_humidity_deficit,
                            standard_pressure_at)
 from ..surface.roughness import charnock_roughness, land_use_roughness
@@ -111,7 +112,7 @@ def _receptor_roughness(surf, receptors, opt):
 CACHE_ENTRIES = {"micromet": 4, "state": 8, "gases": 8, "particles": 32}
 #: Options of steps 1-4 (air, sun, surface layer, receptors' u*, L and Ra).
 _MICROMET_OPTIONS = ("roughness", "ustar_floor", "ra_cap", "ra_min_height_z0",
-                     "blending_height", "night_cloud_cover", "unstable_iterations",
+                     "blending_height", "ustar_transfer", "night_cloud_cover", "unstable_iterations",
                      "charnock_iterations")
 #: Options of step 5 (season and wetness), besides those of steps 1-4.
 _STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule")
@@ -266,16 +267,21 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         d_r = d_r[:, :, None]
         z0_r = np.where(water, CHARNOCK_START_Z0, z0_s[:, :, None])
         zb = opt.blending_height
+        f_cor = coriolis_parameter(site("latitude"))
+
+        def transfer(z0_to, d_to):  # u* over the receptor (option ustar_transfer)
+            if opt.ustar_transfer == "drag_law":
+                return transfer_ustar_drag_law(us_m, z0_m, z0_to, f_cor)
+            return transfer_ustar(us_m, z0_m, d_m, z0_to, d_to, zb)
         with np.errstate(invalid="ignore", divide="ignore"):
             if water.any():
                 z0_w = CHARNOCK_START_Z0 + 0.0 * us_m
                 for _ in range(opt.charnock_iterations):
-                    us_w = np.maximum(transfer_ustar(us_m, z0_m, d_m, z0_w, 0.0, zb),
-                                      opt.ustar_floor)
+                    us_w = np.maximum(transfer(z0_w, 0.0), opt.ustar_floor)
                     z0_w = charnock_roughness(us_w, nu)
                 z0_r = np.where(water, z0_w, z0_r)
             z0_r = z0_r + 0.0 * us_m
-            us_r = transfer_ustar(us_m, z0_m, d_m, z0_r, d_r, zb)
+            us_r = transfer(z0_r, d_r)
             us_r, floor_used = apply_floor(us_r, opt.ustar_floor)
             alb_r = np.where(snow > 0.5, eb.SNOW_ALBEDO, rec([eb.ALBEDO[r] for r in receptors]))
             alpha_r = rec([eb.PT_ALPHA[r] for r in receptors])

@@ -96,6 +96,8 @@ def default_particle_modes() -> dict:
     }
 
 
+#: Transfers of u* from the wind mast's surface to a receptor (DryOptions.ustar_transfer).
+USTAR_TRANSFERS = ("blending_height", "drag_law")
 WETNESS_RULES = ("met", "inferred", "always_dry", "always_wet")
 
 
@@ -139,6 +141,14 @@ class DryOptions:
         log profile holds only well above the roughness elements). [-]
     blending_height : float
         Height where the wind no longer feels the local surface (Wieringa 1986). [m]
+    ustar_transfer : str
+        How u* over the wind mast's surface becomes u* over a receptor:
+        ``"blending_height"``, the two log profiles share the wind at
+        `blending_height` (a receptor patch inside a landscape like the mast's);
+        ``"drag_law"``, both surfaces share the geostrophic wind through the neutral
+        geostrophic drag law (Tennekes 1973; Garratt 1992): a receptor that covers
+        the landscape, about 30 % less u* over a forest from a grass mast
+        (docs/methods_dry.md, friction velocity over a forest).
     night_cloud_cover : float
         Cloud cover used at night when the met file has none and it cannot be
         inferred from radiation (every such hour is flagged); a mid-range value, our
@@ -195,6 +205,7 @@ class DryOptions:
     ra_cap: float = 1000.0
     ra_min_height_z0: float = 5.0
     blending_height: float = 60.0
+    ustar_transfer: str = "blending_height"
     night_cloud_cover: float = 0.5
     roughness: dict = field(default_factory=dict)
     particle_modes: dict = field(default_factory=default_particle_modes)
@@ -224,6 +235,11 @@ class DryOptions:
         if self.gas_scheme not in SCHEMES:
             raise ValueError(f"unknown gas_scheme {self.gas_scheme!r}; use one of "
                              f"{tuple(SCHEMES)}")
+        if self.ustar_transfer not in USTAR_TRANSFERS:
+            raise ValueError(f"unknown ustar_transfer {self.ustar_transfer!r}; use one of "
+                             f"{USTAR_TRANSFERS}")
+        if not self.coastal_distance >= 0:
+            raise ValueError("coastal_distance must be >= 0 m")
         if self.nh3_treatment not in ("deposition_only", "bidirectional"):
             raise ValueError(f"unknown nh3_treatment {self.nh3_treatment!r}; use "
                              "'deposition_only' or 'bidirectional'")
