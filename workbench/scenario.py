@@ -42,7 +42,8 @@ SCHEMA: dict = {
 #: Keys allowed in a [sites.<id>] table: per-site overrides of the catalogue.
 SITE_OVERRIDES = ("canopy_height_m", "roughness_length_m", "displacement_height_m",
                   "terrain_slope_deg", "lai", "lai_min", "lai_max", "collector",
-                  "receptors", "met_land_use", "wind_height_m", "sampler_height_m")
+                  "receptors", "met_land_use", "wind_height_m", "sampler_height_m",
+                  "coast_distance_km", "coarse_fraction")
 
 
 def option_sections() -> dict:

@@ -115,7 +115,8 @@ LAND_USES = ("conifer_forest", "deciduous_forest", "grass", "water", "barren", "
 MODES = (FINE_MODE, LogNormalMode(5e-6, 2.0, 2165.0, "sea_salt"),
          LogNormalMode(5e-6, 2.2, 2600.0, "none"), LogNormalMode(1e-6, 1.8, 1500.0, "urban"),
          LogNormalMode(2e-6, 1.5, 1700.0, "rural"), LogNormalMode(0.05e-6, 1.6, 1000.0,
-                                                                 "ammonium_sulfate"))
+                                                                 "ammonium_sulfate"),
+         LogNormalMode(0.4e-6, 2.0, 1725.0, "ammonium_nitrate"))
 
 
 def _hourly_inputs(seed=5, n_site=2, n_time=400):

@@ -33,7 +33,8 @@ from ..landuse import LAND_USE
 from ..memo import recent
 from ..surface import energy_balance as eb
 from ..surface.aerodynamic import (aerodynamic_resistance, apply_cap, apply_floor,
-                                   reference_height, transfer_ustar)
+                                   coriolis_parameter, reference_height, transfer_ustar,
+                                   transfer_ustar_drag_law)
 from ..surface.air import (air_density, kinematic_viscosity, specific_humidity_deficit,
                            standard_pressure_at)
 from ..surface.roughness import charnock_roughness, land_use_roughness
@@ -41,6 +42,7 @@ from ..surface.solar import solar_elevation_sine, time_parts
 from . import canopy as _canopy
 from . import gas as _gas
 from . import nh3_bidirectional as _nh3
+from . import particle_fractions as _fractions
 from . import particles as _particles
 from . import seasons as _seasons
 from . import wetness as _wetness
@@ -110,7 +112,7 @@ def _receptor_roughness(surf, receptors, opt):
 CACHE_ENTRIES = {"micromet": 4, "state": 8, "gases": 8, "particles": 32}
 #: Options of steps 1-4 (air, sun, surface layer, receptors' u*, L and Ra).
 _MICROMET_OPTIONS = ("roughness", "ustar_floor", "ra_cap", "ra_min_height_z0",
-                     "blending_height", "night_cloud_cover", "unstable_iterations",
+                     "blending_height", "ustar_transfer", "night_cloud_cover", "unstable_iterations",
                      "charnock_iterations")
 #: Options of step 5 (season and wetness), besides those of steps 1-4.
 _STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule")
@@ -265,16 +267,21 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         d_r = d_r[:, :, None]
         z0_r = np.where(water, CHARNOCK_START_Z0, z0_s[:, :, None])
         zb = opt.blending_height
+        f_cor = coriolis_parameter(site("latitude"))
+
+        def transfer(z0_to, d_to):  # u* over the receptor (option ustar_transfer)
+            if opt.ustar_transfer == "drag_law":
+                return transfer_ustar_drag_law(us_m, z0_m, z0_to, f_cor)
+            return transfer_ustar(us_m, z0_m, d_m, z0_to, d_to, zb)
         with np.errstate(invalid="ignore", divide="ignore"):
             if water.any():
                 z0_w = CHARNOCK_START_Z0 + 0.0 * us_m
                 for _ in range(opt.charnock_iterations):
-                    us_w = np.maximum(transfer_ustar(us_m, z0_m, d_m, z0_w, 0.0, zb),
-                                      opt.ustar_floor)
+                    us_w = np.maximum(transfer(z0_w, 0.0), opt.ustar_floor)
                     z0_w = charnock_roughness(us_w, nu)
                 z0_r = np.where(water, z0_w, z0_r)
             z0_r = z0_r + 0.0 * us_m
-            us_r = transfer_ustar(us_m, z0_m, d_m, z0_r, d_r, zb)
+            us_r = transfer(z0_r, d_r)
             us_r, floor_used = apply_floor(us_r, opt.ustar_floor)
             alb_r = np.where(snow > 0.5, eb.SNOW_ALBEDO, rec([eb.ALBEDO[r] for r in receptors]))
             alpha_r = rec([eb.PT_ALPHA[r] for r in receptors])
@@ -431,14 +438,10 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                                            "NH3 emission term of the compensation point model")
             out["nh3_compensation_point"] = srt(gp["nh3bd|chi_s"], "mol m-3",
                                                 "NH3 stomatal compensation point chi_s")
-        # each distinct mode once, all of them in one call (shared surface terms)
-        parts = {}
-        for sp in opt.particles:
-            spec = opt.mode_of(sp)
-            parts[sp] = [(frac, mode) for frac, mode in (
-                (spec.fine_fraction, spec.fine), (1.0 - spec.fine_fraction, spec.coarse))
-                if frac > 0.0]
-        modes = list(dict.fromkeys(mode for pp in parts.values() for _, mode in pp))
+        # each distinct mode once, all of them in one call (shared surface terms); the
+        # mass weight of each mode per site (docs/methods_dry.md, particle size split)
+        parts = {sp: _fractions.mode_weights(surf, sp, opt) for sp in opt.particles}
+        modes = list(dict.fromkeys(mode for pp in parts.values() for mode, _ in pp[0]))
         mode_key = {mode: k_state + repr((mode, opt.size_nodes)) for mode in modes}
         known = cache.get("particles", {}) if cache is not None else {}
         todo = [mode for mode in modes if mode_key[mode] not in known]
@@ -447,14 +450,15 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         by_mode = {mode: _stage(cache, "particles", mode_key[mode],
                                 lambda mode=mode: {"vd": new[mode]})["vd"] for mode in modes}
         for sp in opt.particles:
-            spec = opt.mode_of(sp)
+            weights, coarse, source = parts[sp]
             total = 0.0
-            for frac, mode in parts[sp]:
-                total = total + frac * by_mode[mode]
+            for mode, w in weights:
+                total = total + w[:, None, None] * by_mode[mode]
             out[f"vd_{sp}"] = srt(total, "m s-1", f"mass-weighted dry deposition velocity of {sp} "
-                                  "(Zhang et al. 2001)", fine_fraction=spec.fine_fraction,
-                                  fine_mmd_m=spec.fine.mmd, fine_gsd=spec.fine.gsd,
-                                  coarse_mmd_m=spec.coarse.mmd, coarse_gsd=spec.coarse.gsd)
+                                  "(Zhang et al. 2001)", coarse_fraction=coarse.tolist(),
+                                  coarse_fraction_source=", ".join(
+                                      _fractions.SOURCE[int(k)] for k in source),
+                                  modes=repr([(m, float(np.max(w))) for m, w in weights]))
 
     # --- assemble -----------------------------------------------------------------------------
     obukhov = np.where(inv_l == 0, np.inf, 1.0 / np.where(inv_l == 0, 1.0, inv_l))

@@ -4,7 +4,9 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 #: Growth laws known to :func:`workbench.drydep.particles.wet_diameter`.
-GROWTH_LAWS = ("ammonium_sulfate", "sea_salt", "urban", "rural", "none")
+#: Gerber (1985) laws (ammonium_sulfate, sea_salt, urban, rural), kappa-Koehler
+#: (ammonium_nitrate; Petters and Kreidenweis 2007) or no growth.
+GROWTH_LAWS = ("ammonium_sulfate", "ammonium_nitrate", "sea_salt", "urban", "rural", "none")
 
 
 @dataclass(frozen=True)
@@ -61,6 +63,10 @@ class ParticleSpec:
 #: practice; cf. the accumulation mode of Whitby 1978, Atmos. Environ. 12, 135, from
 #: memory), dry density of ammonium sulfate 1770 kg m-3 (CRC Handbook, from memory).
 FINE_MODE = LogNormalMode(0.4e-6, 2.0, 1770.0, "ammonium_sulfate")
+#: Accumulation mode of ammonium nitrate: the size of :data:`FINE_MODE`, dry density
+#: of NH4NO3 1725 kg m-3 (CRC Handbook, from memory), kappa-Koehler growth
+#: (Petters and Kreidenweis 2007).
+FINE_NITRATE = LogNormalMode(0.4e-6, 2.0, 1725.0, "ammonium_nitrate")
 #: Coarse sea-salt mode: MMD 5 um, sigma_g 2.0 (common practice, from memory),
 #: density of NaCl 2165 kg m-3 (CRC Handbook, from memory).
 COARSE_SEA_SALT = LogNormalMode(5.0e-6, 2.0, 2165.0, "sea_salt")
@@ -70,17 +76,19 @@ COARSE_DUST = LogNormalMode(5.0e-6, 2.0, 2600.0, "none")
 
 
 def default_particle_modes() -> dict:
-    """Default size distributions of the particulate species (common practice).
+    """Default size distributions of the particulate species at an inland site.
 
-    Sulfate and ammonium are taken as fine (coarse sea-salt sulfate can be added
-    with a fine_fraction below 1: its Vd is an order of magnitude larger, so 10 %
-    coarse roughly doubles the mass-weighted Vd over forest); nitrate is split half
-    and half, since it is often largely coarse (on sea salt or dust) at coastal and
-    farm sites; sodium and chloride are coarse sea salt and calcium coarse dust.
+    Sulfate and ammonium are fine (ammonium sulfate growth); nitrate is 80 % fine
+    ammonium nitrate (its own kappa growth) and 20 % coarse on mineral dust (no
+    growth): inland filter-pack nitrate is mostly fine ammonium nitrate (common
+    practice; from memory, continental sites find about 70-90 % of nitrate below
+    2.5 um).  Sodium and chloride are coarse sea salt, calcium coarse dust.  At a
+    coastal site (:mod:`workbench.drydep.particle_fractions`) half of the nitrate is
+    taken as coarse, on sea salt; a site's ``coarse_fraction`` key overrides both.
     """
     return {
         "pSO4": ParticleSpec(FINE_MODE, COARSE_SEA_SALT, 1.0),
-        "pNO3": ParticleSpec(FINE_MODE, COARSE_SEA_SALT, 0.5),
+        "pNO3": ParticleSpec(FINE_NITRATE, COARSE_DUST, 0.8),
         "pNH4": ParticleSpec(FINE_MODE, COARSE_SEA_SALT, 1.0),
         "pNa": ParticleSpec(FINE_MODE, COARSE_SEA_SALT, 0.0),
         "pCl": ParticleSpec(FINE_MODE, COARSE_SEA_SALT, 0.0),
@@ -88,6 +96,8 @@ def default_particle_modes() -> dict:
     }
 
 
+#: Transfers of u* from the wind mast's surface to a receptor (DryOptions.ustar_transfer).
+USTAR_TRANSFERS = ("blending_height", "drag_law")
 WETNESS_RULES = ("met", "inferred", "always_dry", "always_wet")
 
 
@@ -131,6 +141,14 @@ class DryOptions:
         log profile holds only well above the roughness elements). [-]
     blending_height : float
         Height where the wind no longer feels the local surface (Wieringa 1986). [m]
+    ustar_transfer : str
+        How u* over the wind mast's surface becomes u* over a receptor:
+        ``"blending_height"``, the two log profiles share the wind at
+        `blending_height` (a receptor patch inside a landscape like the mast's);
+        ``"drag_law"``, both surfaces share the geostrophic wind through the neutral
+        geostrophic drag law (Tennekes 1973; Garratt 1992): a receptor that covers
+        the landscape, about 30 % less u* over a forest from a grass mast
+        (docs/methods_dry.md, friction velocity over a forest).
     night_cloud_cover : float
         Cloud cover used at night when the met file has none and it cannot be
         inferred from radiation (every such hour is flagged); a mid-range value, our
@@ -139,7 +157,14 @@ class DryOptions:
         ``{land_use: (z0, d)}`` replacing the roughness rule for a whole class
         (either entry may be None). [m]
     particle_modes : dict
-        ``{species: ParticleSpec}``; missing species take the defaults.
+        ``{species: ParticleSpec}``; missing species take the defaults.  A species
+        set here (differing from its default) takes this fine fraction and coarse
+        mode at every site without a ``coarse_fraction`` key; a species left at its
+        default follows the coastal/inland rule (:mod:`workbench.drydep.particle_fractions`).
+    coastal_distance : float
+        A site whose ``coast_distance_km`` is below this is coastal for the default
+        coarse fractions (common practice: sea salt falls off within the first tens
+        of km inland; from memory). [m]
     size_nodes : int
         Gauss-Hermite nodes per log-normal mode for the mass-weighted particle Vd.
     unstable_iterations : int
@@ -180,9 +205,11 @@ class DryOptions:
     ra_cap: float = 1000.0
     ra_min_height_z0: float = 5.0
     blending_height: float = 60.0
+    ustar_transfer: str = "blending_height"
     night_cloud_cover: float = 0.5
     roughness: dict = field(default_factory=dict)
     particle_modes: dict = field(default_factory=default_particle_modes)
+    coastal_distance: float = 50e3
     size_nodes: int = 12
     unstable_iterations: int = 30
     charnock_iterations: int = 8
@@ -208,6 +235,11 @@ class DryOptions:
         if self.gas_scheme not in SCHEMES:
             raise ValueError(f"unknown gas_scheme {self.gas_scheme!r}; use one of "
                              f"{tuple(SCHEMES)}")
+        if self.ustar_transfer not in USTAR_TRANSFERS:
+            raise ValueError(f"unknown ustar_transfer {self.ustar_transfer!r}; use one of "
+                             f"{USTAR_TRANSFERS}")
+        if not self.coastal_distance >= 0:
+            raise ValueError("coastal_distance must be >= 0 m")
         if self.nh3_treatment not in ("deposition_only", "bidirectional"):
             raise ValueError(f"unknown nh3_treatment {self.nh3_treatment!r}; use "
                              "'deposition_only' or 'bidirectional'")

@@ -32,7 +32,7 @@ from ..surface.air import dynamic_viscosity, kinematic_viscosity, mean_free_path
 # numpy fast path, which this module imports: imports go one way); re-exported here
 from .particles_numpy import ZhangSurface
 from .zhang_tables import (_ROW, _SLIP_EXP_MIN, EPSILON_0, GERBER, GROWTH_RH_MAX,  # noqa: F401
-                           M_PER_CM, M_PER_MM, SLIP_A, SLIP_B, SLIP_C, ZHANG_LUC, _hermgauss,
+                           KAPPA, M_PER_CM, M_PER_MM, SLIP_A, SLIP_B, SLIP_C, ZHANG_LUC, _hermgauss,
                            _luc_table, _rows, lognormal_nodes)
 
 
@@ -119,7 +119,7 @@ def wet_diameter(dry_diameter, relative_humidity, growth="ammonium_sulfate"):
     relative_humidity : array_like
         Fraction, clipped to 0-0.99 (:data:`GROWTH_RH_MAX`). [1]
     growth : str
-        A key of :data:`GERBER`, or ``"none"``.
+        A key of :data:`GERBER` or of :data:`KAPPA`, or ``"none"``.
 
     Returns
     -------
@@ -128,12 +128,21 @@ def wet_diameter(dry_diameter, relative_humidity, growth="ammonium_sulfate"):
 
     Notes
     -----
+    Gerber laws:
+
     .. math:: r_w = \\left[\\frac{C_1 r_d^{C_2}}{C_3 r_d^{C_4} - \\log_{10} RH} + r_d^3\\right]^{1/3}
 
-    with radii in cm (Gerber 1985, as used by Zhang et al. 2001, Eq. 10).
+    with radii in cm (Gerber 1985, as used by Zhang et al. 2001, Eq. 10).  kappa laws
+    (Petters and Kreidenweis 2007, Eq. 11 without the Kelvin term; the upper,
+    deliquesced branch at every humidity):
+
+    .. math:: d_w = d_d \\left(1 + \\kappa \\frac{RH}{1 - RH}\\right)^{1/3}
     """
     if growth == "none":
         return dry_diameter + 0.0 * relative_humidity
+    if growth in KAPPA:
+        rh = np.clip(relative_humidity, 0.0, GROWTH_RH_MAX)
+        return dry_diameter * np.cbrt(1.0 + KAPPA[growth] * rh / (1.0 - rh))
     c1, c2, c3, c4 = GERBER[growth]
     rd = dry_diameter / 2.0 / M_PER_CM
     rh = np.clip(relative_humidity, np.finfo(float).tiny, GROWTH_RH_MAX)

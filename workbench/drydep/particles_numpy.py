@@ -14,7 +14,8 @@ import numpy as np
 
 from ..constants import BOLTZMANN, GRAVITY, WATER_DENSITY
 from ..surface.air import dynamic_viscosity, kinematic_viscosity, mean_free_path
-from .zhang_tables import (_ROW, _SLIP_EXP_MIN, EPSILON_0, GERBER, GROWTH_RH_MAX, M_PER_CM,
+from .zhang_tables import (_ROW, _SLIP_EXP_MIN, EPSILON_0, GERBER, GROWTH_RH_MAX, KAPPA,
+                           M_PER_CM,
                            SLIP_A, SLIP_B, SLIP_C, _luc_table, _rows, lognormal_nodes)
 
 
@@ -68,6 +69,8 @@ class ZhangSurface:
         self.air_shape = np.broadcast_shapes(rh.shape, t.shape, p.shape)
         self.nan_rh = np.where(np.isnan(rh), np.nan, 0.0)
         self.log10_rh = np.log10(np.clip(rh, np.finfo(float).tiny, GROWTH_RH_MAX))
+        rh_c = np.clip(rh, 0.0, GROWTH_RH_MAX)
+        self.rh_odds = rh_c / (1.0 - rh_c)                       # RH/(1 - RH) of kappa laws
         mu = dynamic_viscosity(t)
         nu = kinematic_viscosity(t, p, viscosity=mu)
         free_path = mean_free_path(t, p, viscosity=mu)
@@ -116,7 +119,7 @@ class ZhangSurface:
 
         Notes
         -----
-        Gerber (1985) growth as :func:`wet_diameter`, density as :func:`wet_density`,
+        Gerber (1985) or kappa-Koehler growth as :func:`wet_diameter`, density as :func:`wet_density`,
         C_c, v_g and D_B as :func:`slip_correction`, :func:`settling_velocity` and
         :func:`brownian_diffusivity`, with the factors that depend only on the air
         taken out: exp(-1.1 d/(2 lambda)), v_g = rho_p d^2 C_c g/(18 mu) and
@@ -125,6 +128,11 @@ class ZhangSurface:
         dw, d2, rho, cc, log_sc, _ = self._air_work
         if growth == "none":
             np.add(self.nan_rh, dry_diameter, out=dw)  # NaN where RH is, as wet_diameter
+        elif growth in KAPPA:  # kappa-Koehler, as wet_diameter
+            np.multiply(self.rh_odds, KAPPA[growth], out=dw)
+            dw += 1.0
+            np.cbrt(dw, out=dw)
+            dw *= dry_diameter
         else:
             c1, c2, c3, c4 = GERBER[growth]
             rd = dry_diameter / 2.0 / M_PER_CM  # dry radius [cm]

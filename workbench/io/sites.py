@@ -39,7 +39,13 @@ SITE_KEYS = {
     "collector": (str, False, "'wet_only' (default) or 'bulk'"),
     "receptors": (list, False, "further land-use classes for dry deposition"),
     "critical_loads": (dict, False, "table of critical loads [eq/ha/yr]"),
+    "coast_distance_km": ((int, float), False, "distance to the sea coast [km] (coastal or "
+                          "inland particle size split)"),
+    "coarse_fraction": (dict, False, "coarse mass fraction 0-1 per particle species, "
+                        "e.g. {pNO3 = 0.3}"),
 }
+#: Particle species a ``coarse_fraction`` table may name.
+PARTICLE_SPECIES = ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa")
 CRITICAL_LOAD_KEYS = ("cl_max_s", "cl_min_n", "cl_max_n", "cl_nut_n")
 COLLECTORS = ("wet_only", "bulk")
 
@@ -66,6 +72,8 @@ class Site:
     collector: str = "wet_only"
     receptors: tuple = ()
     critical_loads: dict = field(default_factory=dict)
+    coast_distance_km: float | None = None
+    coarse_fraction: dict = field(default_factory=dict)
 
     @property
     def surfaces(self) -> tuple:
@@ -142,6 +150,14 @@ class SiteCatalogue:
                 "terrain_slope": ("site", arr(lambda x: x.terrain_slope_deg), {"units": "degree"}),
                 "met_land_use": ("site", arr(lambda x: x.met_land_use or x.land_use, object)),
                 "collector": ("site", arr(lambda x: x.collector, object)),
+                "coast_distance": ("site", arr(lambda x: np.nan if x.coast_distance_km is None
+                                               else 1e3 * x.coast_distance_km),
+                                   {"units": "m", "long_name": "distance to the coast (NaN: "
+                                    "not given)"}),
+                **{f"coarse_fraction_{sp}": ("site", arr(lambda x, sp=sp: x.coarse_fraction.get(
+                    sp, np.nan)), {"units": "1", "long_name": f"coarse mass fraction of {sp} "
+                                   "(NaN: the default rule)"})
+                   for sp in PARTICLE_SPECIES if any(sp in x.coarse_fraction for x in s)},
             },
             coords={"site": [x.id for x in s]},
         )
@@ -337,7 +353,15 @@ def check_site(t: dict, err, notes: list, label: str) -> Site:
                       + ", ".join(CRITICAL_LOAD_KEYS) + suggest(key, CRITICAL_LOAD_KEYS))
         if isinstance(v, bool) or not isinstance(v, (int, float)) or v < 0:
             raise err("bad critical load", key, v, "a number >= 0 in eq/ha/yr")
-    for key in ("displacement_height_m", "terrain_slope_deg"):
+    coarse = dict(t.get("coarse_fraction", {}))
+    for key, v in coarse.items():
+        if key not in PARTICLE_SPECIES:
+            raise err("unknown particle species in coarse_fraction", "coarse_fraction", key,
+                      "one of " + ", ".join(PARTICLE_SPECIES) + suggest(key, PARTICLE_SPECIES))
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 <= v <= 1:
+            raise err("bad coarse fraction", "coarse_fraction", f"{key} = {v}",
+                      "a mass fraction from 0 to 1")
+    for key in ("displacement_height_m", "terrain_slope_deg", "coast_distance_km"):
         if key in t and t[key] < 0:
             raise err("negative value", key, t[key], "a value >= 0")
     _geometry(t, err, notes, label)
@@ -352,7 +376,9 @@ def check_site(t: dict, err, notes: list, label: str) -> Site:
         roughness_length_m=t.get("roughness_length_m"),
         displacement_height_m=t.get("displacement_height_m"),
         met_land_use=t.get("met_land_use"), collector=collector,
-        receptors=tuple(receptors), critical_loads={k2: float(v) for k2, v in cl.items()})
+        receptors=tuple(receptors), critical_loads={k2: float(v) for k2, v in cl.items()},
+        coast_distance_km=None if "coast_distance_km" not in t else float(t["coast_distance_km"]),
+        coarse_fraction={k2: float(v) for k2, v in coarse.items()})
 
 
 #: Station elevations possible on land [m] (lowest shore about -430 m, highest summit
@@ -438,7 +464,10 @@ def site_dict(site: Site) -> dict:
            "utc_offset_h": site.utc_offset_h, "terrain_slope_deg": site.terrain_slope_deg,
            "collector": site.collector, "receptors": list(site.receptors),
            "critical_loads": dict(site.critical_loads)}
-    for key in ("roughness_length_m", "displacement_height_m", "met_land_use"):
+    if site.coarse_fraction:
+        out["coarse_fraction"] = dict(site.coarse_fraction)
+    for key in ("roughness_length_m", "displacement_height_m", "met_land_use",
+                "coast_distance_km"):
         if getattr(site, key) is not None:
             out[key] = getattr(site, key)
     if site.lai is not None:
