@@ -5,6 +5,8 @@ or to a data table with its source beside it.  Constants of a single published
 scheme (Wesely's resistances, Zhang's land-use parameters) live in that scheme's
 module as data tables with their sources.
 """
+import numpy as np
+
 
 # --- fundamental (CODATA 2018 exact or recommended values) -------------------------
 #: Molar gas constant R [J mol-1 K-1]; CODATA 2018 (exact).
@@ -86,3 +88,8 @@ SMOOTH_FLOW_COEFFICIENT = 0.11
 # --- geometry --------------------------------------------------------------------------
 #: Obliquity of the ecliptic [degree] (J2000 value 23.439; common practice).
 OBLIQUITY = 23.439
+
+# --- time ------------------------------------------------------------------------------
+#: Offset from the end of an hour-ending record to its middle (records are labelled by
+#: the end of their hour; the sun and the hour of day are taken at the middle).
+HALF_HOUR = np.timedelta64(30, "m")

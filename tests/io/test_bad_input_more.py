@@ -184,7 +184,7 @@ SITE_CASES = {
     "anemometer_below_forest_d": (
         ("wind_height_m = 30.0", "wind_height_m = 12.0"),
         "line 26, column 'wind_height_m': anemometer at or below the displacement height: "
-        "got '12.0', expected wind_height_m 12 m above the displacement height d = 13.3 m"),
+        "got '12.0', expected wind_height_m 12 m above the displacement height d = 15.4 m"),
     "anemometer_inside_z0": (
         ("utc_offset_h = 1\n", "utc_offset_h = 1\nroughness_length_m = 12.0\n"),
         "line 9, column 'wind_height_m': anemometer within the roughness length above d: "
@@ -241,7 +241,7 @@ SITE_HINTS = {
                             "terrain_slope_deg 60 is steeper than 45 degrees: a percent grade"),
     "sampler_in_canopy": (("sampler_height_m = 25.0", "sampler_height_m = 5.0"),
                           "site 'beta': the air sampler inlet (5 m) is at or below the "
-                          "displacement height (13.3 m)"),
+                          "displacement height (15.4 m)"),
     "position_placeholder": (("latitude = 52.0\nlongitude = 5.0", "latitude = 0\nlongitude = 0"),
                              "site 'alpha': latitude and longitude are both 0: a placeholder?"),
 }

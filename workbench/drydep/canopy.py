@@ -7,6 +7,7 @@ from __future__ import annotations
 import numpy as np
 
 from .. import landuse
+from ..constants import HALF_HOUR    # the sun at the middle of the hour (as the engine)
 from ..surface.solar import solar_elevation_sine, time_parts
 from . import seasons
 
@@ -59,7 +60,6 @@ def lai_season(surf, times):
 
 def cos_zenith(times, site):
     """Cosine of the solar zenith angle at the middle of each hour (site, 1, time) [-]."""
-    from .core import HALF_HOUR    # the sun at the middle of the hour (as the engine)
     doy, hour = time_parts(times - HALF_HOUR)
     return solar_elevation_sine(doy[None, None, :], hour[None, None, :], site("latitude"),
                                 site("longitude"))

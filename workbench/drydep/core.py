@@ -28,7 +28,7 @@ import xarray as xr
 
 from .. import landuse
 from ..optional import require
-from ..constants import CP_DRY_AIR, VON_KARMAN
+from ..constants import CP_DRY_AIR, HALF_HOUR, VON_KARMAN
 from ..landuse import LAND_USE
 from ..memo import recent
 from ..surface import energy_balance as eb
@@ -51,7 +51,6 @@ from .options import DryOptions
 #: Start value of the Charnock iteration [m] (numerical device).
 CHARNOCK_START_Z0 = 1e-4
 #: The met time stamp ends the hour; the sun is taken at its middle.
-HALF_HOUR = np.timedelta64(30, "m")
 #: Smallest heat flux passed to the unstable solver [W m-2] (numerical device).
 _MIN_DAY_FLUX = 1e-3
 #: Codes of ``surface_layer_method``.
