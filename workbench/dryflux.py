@@ -359,7 +359,7 @@ def period_axes(periods) -> PeriodAxes:
 
 
 def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
-                     starts=None, ends=None):
+                     starts=None, ends=None, per_row=False):
     """Numpy core of :func:`to_periods`.
 
     Parameters
@@ -379,11 +379,18 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
         mean Vd of its hours inside, so that the split among reporting periods and the
         coverage follow the real overlap.
 
+    per_row : bool
+        Also return each sampling period's part of the result (for the Monte Carlo of
+        :mod:`workbench.analysis.uncertainty`, which draws errors per sampling period).
+
     Returns
     -------
     deposition : ndarray (S, R, P) [mol m-2], scaled to the whole period
     coverage : ndarray (S, P) [1]
     covered_hours : ndarray (S, P) [h]
+    rows : ndarray (n, P, R) [mol m-2], only with `per_row`
+        Each sampling period's contribution to `deposition` (its site's row), so that
+        ``deposition[s] == rows[site_index == s].sum(0).T`` where covered.
     """
     periods = period_axes(periods)
     n_r, n_p = cs.shape[1], len(periods)
@@ -422,6 +429,9 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
     with np.errstate(invalid="ignore", divide="ignore"):
         scale = np.where(cov_hours > 0, period_hours[None, :] / cov_hours, np.nan)
     coverage = np.clip(cov_hours / np.maximum(period_hours[None, :], 1), 0, 1)
+    if per_row:
+        rows = dep * scale[site_index][:, :, None] if len(a) else np.zeros((0, n_p, n_r))
+        return dep_out * scale[:, None, :], coverage, cov_hours, rows
     return dep_out * scale[:, None, :], coverage, cov_hours
 
 

@@ -183,6 +183,8 @@ def write_run(result, study, scenario, out, overwrite=False, progress=None) -> d
     """
     started = _dt.datetime.now(_dt.timezone.utc)
     say = progress or (lambda text: None)
+    from .analysis.uncertainty import with_uncertainty     # quantiles when [uncertainty] draws > 0
+    result = with_uncertainty(result, study, scenario)
     paths = dict(study.inputs.paths)
     if scenario is not None and scenario.path is not None:
         paths = {"scenario": scenario.path, **paths}
