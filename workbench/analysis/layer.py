@@ -115,7 +115,9 @@ def _dry_layers(rows, periods, sites, n_r):
         for k, s in enumerate(sites):
             if s not in row_sites:
                 continue
-            sel = np.flatnonzero(si == row_sites.index(s))
+            # the site's rows that reach a reporting period (the others add nothing)
+            sel = np.flatnonzero((si == row_sites.index(s))
+                                 & (per_row != 0).any(axis=(1, 2)))
             if not len(sel):
                 continue
             out[k][sp] = DryPieces(per_row[sel][:, :, :n_r], cens[sel], filled[sel], sel)

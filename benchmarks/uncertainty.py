@@ -1,0 +1,96 @@
+"""Time of the Monte Carlo of a site-year's budget (``workbench.analysis.uncertainty``).
+
+    python benchmarks/uncertainty.py                          # ridge 2021, 1000 draws
+    python benchmarks/uncertainty.py --site farm --year 2019 --draws 1000 --repeat 5
+
+The demo scenario's options are used (the default factors of ``[uncertainty]``).
+Printed, as median and best wall-clock times [ms]:
+
+* layer: taking the per-sample pieces of the computed run (once per run);
+* site-year: the factors, the draws of every component, the totals and their
+  quantiles of one site and year (all its receptors) — the number the goal is about;
+* network-year: :func:`monte_carlo` of every site for that year, budget and span.
+
+The engine (the budget itself) runs once before the clock starts; nothing is
+asserted: times depend on the machine.  The ratios to the 5 s limit and the 1 s goal
+of 1,000 draws of a site-year are printed for orientation.
+"""
+from __future__ import annotations
+
+import argparse
+import statistics
+import sys
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT))
+
+#: Limit and goal for 1,000 draws of a site-year [s].
+LIMIT_S, GOAL_S = 5.0, 1.0
+
+
+def _times(fn, repeat):
+    out = []
+    for _ in range(repeat):
+        t = time.perf_counter()
+        fn()
+        out.append(time.perf_counter() - t)
+    return out
+
+
+def main(argv=None):
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--scenario", default=str(ROOT / "demo_data" / "scenario.toml"))
+    ap.add_argument("--site", default="ridge")
+    ap.add_argument("--year", type=int, default=2021)
+    ap.add_argument("--draws", type=int, default=1000)
+    ap.add_argument("--repeat", type=int, default=5)
+    args = ap.parse_args(argv)
+
+    import dataclasses
+
+    import numpy as np
+
+    from workbench.analysis import uncertainty as U
+    from workbench.pipeline import Study
+    from workbench.scenario import load_scenario
+
+    sc = load_scenario(args.scenario)
+    study = Study.from_scenario(sc)
+    res = study.run(sc.options["wet"], sc.options["dry"], sc.options["budget"], sc.fixed_velocity,
+                    "year", f"{args.year}-01-01", f"{args.year + 1}-01-01")
+    opt = dataclasses.replace(sc.options["uncertainty"], draws=args.draws)
+    sites = [str(s) for s in res.budget["site"].values]
+    k = sites.index(args.site)
+    t_layer = _times(lambda: U.linear_layer(res, study), args.repeat)
+    layer = U.linear_layer(res, study)
+    year0 = int(layer.period_year.min())
+    q = np.asarray(U.QUANTILES)
+
+    def site_year():
+        noise = U.site_noise(layer.sites[k], opt, opt.draws, 1, 1, (opt.seed, k))
+        comp = U.component_draws(layer, k, noise, year0)
+        np.quantile(comp, q, axis=0)
+        for v in U.totals_of(comp).values():
+            np.quantile(v, q, axis=0)
+
+    t_site = _times(site_year, args.repeat)
+    t_net = _times(lambda: U.monte_carlo(res, study, opt, {"budget": layer, "years": layer}),
+                   args.repeat)
+    n_rows = sum(len(p.censored) for p in layer.sites[k].dry.values())
+    wet = layer.sites[k].wet
+    print(f"{args.site} {args.year}: {res.budget.sizes['receptor']} receptors, {n_rows} air "
+          f"rows, {0 if wet is None else wet.n_samples} precipitation samples; "
+          f"{opt.draws} draws, {args.repeat} repeats")
+    for name, t in (("layer", t_layer), ("site-year", t_site), ("network-year", t_net)):
+        print(f"  {name:13s} median {1e3 * statistics.median(t):8.1f} ms   best "
+              f"{1e3 * min(t):8.1f} ms")
+    per_1000 = statistics.median(t_site) * 1000 / opt.draws
+    print(f"  1,000 draws of the site-year: {per_1000:.3f} s = {per_1000 / LIMIT_S:.2f} x the "
+          f"5 s limit, {per_1000 / GOAL_S:.2f} x the 1 s goal")
+    return {"layer_s": t_layer, "site_year_s": t_site, "network_year_s": t_net}
+
+
+if __name__ == "__main__":
+    main()
