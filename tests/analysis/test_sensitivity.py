@@ -128,3 +128,16 @@ def test_figure_spec_has_sobol_bars_and_tornado():
     assert spec["data"][3]["x"] == [0.5, 4.0]                          # high - base
     assert spec["data"][2]["base"] == 10.0
     assert len(sensitivity_figure(sob, tor, "a", "grass", "2021").data) == 4
+
+
+def test_sobol_explorer_shows_bars_and_tornado(tiny):
+    from workbench.ui.app_sobol import SobolExplorer
+    from workbench.ui.session import Session
+    sc, _, _, _ = tiny
+    app = SobolExplorer(Session.open(sc.path), output="S dry", samples=16)
+    assert set(app.sobol["factor"]) == {"vd_SO2", "gauge_catch", "wetness_rule"}
+    assert [t.name for t in app.fig.data] == ["first order", "total", "factor low", "factor high"]
+    assert "vd_SO2" in app.fig.data[0].y
+    assert "engine runs" in app.bar_w.value                 # tqdm's bar, in the app
+    app.output_w.value = "S wet"                             # redrawn from the same analysis
+    assert "gauge_catch" in app.fig.data[0].y

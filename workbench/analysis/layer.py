@@ -163,7 +163,7 @@ def _wet_layers(screened, wet, periods, wet_options, met, sites, ions):
     return out, fills, pwms
 
 
-def linear_layer(result, study, which: str = "budget") -> LinearLayer:
+def linear_layer(result, study, which: str = "budget", overrides=None) -> LinearLayer:
     """The per-sample pieces of a run's budget (``which="budget"``) or of its years.
 
     Parameters
@@ -172,6 +172,8 @@ def linear_layer(result, study, which: str = "budget") -> LinearLayer:
     study : workbench.pipeline.Study
         The study that computed `result` (its stages are cached: nothing is re-run).
     which : {"budget", "years"}
+    overrides : dict, optional
+        The site overrides `result` was run with (``Study.run(overrides=...)``).
 
     Returns
     -------
@@ -190,7 +192,7 @@ def linear_layer(result, study, which: str = "budget") -> LinearLayer:
                                     str(ds["period_end"].values[-1]), wet_opt.hydro_start_month)
     sites = [str(s) for s in ds["site"].values]
     receptors = opts.get("receptors")
-    rows = study.dry_rows(dry_opt, bud_opt, opts.get("fixed_velocity"), None, receptors)
+    rows = study.dry_rows(dry_opt, bud_opt, opts.get("fixed_velocity"), overrides, receptors)
     if rows is not None and list(rows["receptors"]) != list(ds["receptor"].values):
         raise ValueError("the dry rows' receptors differ from the budget's")
     dry = _dry_layers(rows, periods, sites, ds.sizes["receptor"])

@@ -246,7 +246,7 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
         dry = apply_engine(base_options["dry"], dict(zip([names[i] for i in engine], key)))
         res = study.run(base_options["wet"], dry, base_options["budget"],
                         base_options.get("fixed_velocity"), **run_kwargs)
-        layer = linear_layer(res, study)
+        layer = linear_layer(res, study, overrides=run_kwargs.get("overrides"))
         ds = layer.budget
         if y is None:
             coords = {k: [str(v) for v in ds[k].values] for k in ("site", "receptor", "period")}
