@@ -405,6 +405,8 @@ def write_sensitivity(scenario, out, overwrite=False, quiet=False) -> dict:
     out = prepare_out_dir(Path(out), {"scenario": sc.path, **sc.input_paths()}, overwrite)
     opt = sc.options["sensitivity"]
     study = Study.from_scenario(sc)
+    if opt.sites:              # the engine computes the sites analysed only
+        study = Study(study.inputs.subset(list(opt.sites)), study.site_overrides)
     p = sc.data["period"]
     kw = {"resolution": p["resolution"], "start": p["start"], "end": p["end"]}
     if opt.receptors:
