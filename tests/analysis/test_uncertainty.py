@@ -144,3 +144,20 @@ def test_run_folder_carries_the_quantiles(tiny, tmp_path):
         assert nc["total_deposition_quantiles"].dims[0] == "quantile"
         assert list(nc["quantile"].values) == list(U.QUANTILES)
     assert "5-95 % range of every total" in written["report.html"].read_text()
+
+
+def test_scenario_section_is_checked(tiny, tmp_path):
+    from workbench.errors import ScenarioError
+    from workbench.scenario import load_scenario
+    sc, _, _, _ = tiny
+    text = sc.path.read_text()
+    for bad, where in (("drawz = 5", "uncertainty.drawz"),
+                       ("[uncertainty.vd_gsd]\nSO2 = 0.5", "uncertainty.vd_gsd")):
+        p = sc.path.parent / "bad.toml"
+        p.write_text(text.replace("[uncertainty]\ndraws = 200\nseed = 7",
+                                  f"[uncertainty]\ndraws = 200\n{bad}"))
+        with pytest.raises(ScenarioError, match=where.replace(".", r"\.")):
+            load_scenario(p)
+    good = load_scenario(sc.path)
+    assert good.options["uncertainty"].draws == 200 and good.options["uncertainty"].seed == 7
+    assert good.options["sensitivity"].factors["wetness_rule"] == ("met", "always_wet")
