@@ -141,3 +141,14 @@ def test_sobol_explorer_shows_bars_and_tornado(tiny):
     assert "engine runs" in app.bar_w.value                 # tqdm's bar, in the app
     app.output_w.value = "S wet"                             # redrawn from the same analysis
     assert "gauge_catch" in app.fig.data[0].y
+
+
+def test_scenario_saved_from_the_apps_keeps_the_analysis_sections(tiny, tmp_path):
+    from workbench.scenario import load_scenario
+    from workbench.ui.session import Session
+    sc, _, _, _ = tiny
+    session = Session.open(sc.path)
+    path = session.save_scenario(sc.path.parent / "saved.toml", session.baseline)
+    back = load_scenario(path)
+    assert back.options["uncertainty"] == sc.options["uncertainty"]
+    assert back.options["sensitivity"] == sc.options["sensitivity"]
