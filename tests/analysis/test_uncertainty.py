@@ -119,6 +119,10 @@ def test_options_are_checked():
         U.UncertaintyOptions(vd_gsd={"XY": 1.5})
     with pytest.raises(ValueError, match="air_rel_sd"):
         U.UncertaintyOptions(air_rel_sd=-0.1)
+    with pytest.raises(ValueError, match="seed"):
+        U.UncertaintyOptions(seed=-1)
+    assert U.UncertaintyOptions(draws=10.0).draws == 10 and isinstance(
+        U.UncertaintyOptions(draws=10.0).draws, int)
     opt = U.UncertaintyOptions.from_dict({"draws": 10, "vd_gsd": {"NH3": 3.0}})
     assert opt.gsd("NH3") == 3.0 and opt.gsd("SO2") == U.DEFAULT_VD_GSD["SO2"]
 

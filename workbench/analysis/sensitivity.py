@@ -77,6 +77,11 @@ class SensitivityOptions:
     receptors: tuple = ()
 
     def __post_init__(self):
+        for name in ("samples", "seed"):
+            v = getattr(self, name)
+            if isinstance(v, bool) or int(v) != v or v < 0:
+                raise ValueError(f"SensitivityOptions.{name} = {v!r} must be an integer >= 0")
+            object.__setattr__(self, name, int(v))
         if self.samples < 2 or self.samples & (self.samples - 1):
             raise ValueError(f"SensitivityOptions.samples = {self.samples} must be a power of 2")
         if len(self.factors) < 2:

@@ -108,8 +108,11 @@ class UncertaintyOptions:
     pwm_fill_rel_sd: float = 0.3
 
     def __post_init__(self):
-        if int(self.draws) != self.draws or self.draws < 0:
-            raise ValueError(f"UncertaintyOptions.draws = {self.draws!r} must be an integer >= 0")
+        for name in ("draws", "seed"):
+            v = getattr(self, name)
+            if isinstance(v, bool) or int(v) != v or v < 0:
+                raise ValueError(f"UncertaintyOptions.{name} = {v!r} must be an integer >= 0")
+            object.__setattr__(self, name, int(v))           # 1000.0 from a file -> 1000
         for name in ("air_rel_sd", "precip_conc_rel_sd", "gauge_catch_rel_sd", "depth_rel_sd",
                      "censored_rel_sd", "vd_fill_rel_sd", "pwm_fill_rel_sd"):
             if not getattr(self, name) >= 0:
