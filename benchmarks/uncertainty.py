@@ -10,6 +10,8 @@ Printed, as median and best wall-clock times [ms]:
 * site-year: the factors, the draws of every component, the totals and their
   quantiles of one site and year (all its receptors) — the number the goal is about;
 * network-year: :func:`monte_carlo` of every site for that year, budget and span;
+* with ``--band``: the 5-95 % range added to the site explorer's budget bars on each
+  redraw (one receptor, the years only; :func:`workbench.ui.uncertainty_band.with_range`);
 * with ``--sobol``: the Sobol analysis (:func:`workbench.analysis.sensitivity.sobol`)
   of the site-year with the default ``[sensitivity]`` factors (10 linear factors,
   N = 64), once, split into the model evaluations and SALib's analysis;
@@ -53,6 +55,8 @@ def main(argv=None):
     ap.add_argument("--draws", type=int, default=1000)
     ap.add_argument("--repeat", type=int, default=5)
     ap.add_argument("--sobol", action="store_true", help="also time the Sobol analysis")
+    ap.add_argument("--band", action="store_true",
+                    help="also time the range on the site explorer's budget bars")
     ap.add_argument("--engine", action="store_true",
                     help="also time a Sobol analysis with two engine factors")
     args = ap.parse_args(argv)
@@ -99,6 +103,20 @@ def main(argv=None):
     print(f"  1,000 draws of the site-year: {per_1000:.3f} s = {per_1000 / LIMIT_S:.2f} x the "
           f"5 s limit, {per_1000 / GOAL_S:.2f} x the 1 s goal")
     out = {"layer_s": t_layer, "site_year_s": t_site, "network_year_s": t_net}
+    if args.band:
+        from workbench.ui import figures
+        from workbench.ui.session import Session
+        from workbench.ui.uncertainty_band import with_range
+        session = Session.open(args.scenario)
+        one = session.study_for(args.site, args.year, args.year)
+        rec = session.receptors(args.site)[0]
+        r = session.run(session.baseline, args.site, args.year, args.year, "year", rec)
+        spec = figures.budget_bars_spec(r.years, args.site, rec, None, "kg/ha/yr")
+        t_band = _times(lambda: with_range(spec, one, r, args.site, rec, "kg/ha/yr", opt,
+                                           session.baseline.overrides), args.repeat)
+        print(f"  {'band':13s} median {1e3 * statistics.median(t_band):8.1f} ms   best "
+              f"{1e3 * min(t_band):8.1f} ms   (site explorer redraw, receptor {rec})")
+        out["band_s"] = t_band
     if args.sobol:
         from workbench.analysis import sensitivity as S
         sopt = dataclasses.replace(sc.options["sensitivity"], sites=(args.site,))

@@ -165,3 +165,22 @@ def test_scenario_section_is_checked(tiny, tmp_path):
     good = load_scenario(sc.path)
     assert good.options["uncertainty"].draws == 200 and good.options["uncertainty"].seed == 7
     assert good.options["sensitivity"].factors["wetness_rule"] == ("met", "always_wet")
+
+
+def test_site_explorer_shows_the_range_and_follows_an_assumption(tiny):
+    from workbench.ui.apps import SiteExplorer
+    from workbench.ui.session import Session
+    sc, _, _, _ = tiny
+    app = SiteExplorer(Session.open(sc.path))
+
+    def total_trace():
+        return next(t for t in app.figs["budget"].data if (t.name or "").startswith("total"))
+    t = total_trace()
+    assert t.name == "total (5-95 % range)"
+    up, down = np.array(t.error_y.array, float), np.array(t.error_y.arrayminus, float)
+    y = np.array(t.y, float)
+    assert (up > 0).all() and (down > 0).all()
+    app.controls["fixed_velocity.SO2"].value = 2 * VD["SO2"]    # more dry S: a wider range
+    t2 = total_trace()
+    assert t2.y[0] > y[0] and t2.error_y.array[0] > up[0]      # S: moved with the change
+    assert t2.y[1] == y[1] and t2.error_y.array[1] == up[1]    # N: as it was

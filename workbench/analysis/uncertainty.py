@@ -372,7 +372,8 @@ def totals_of(comp: np.ndarray) -> dict:
 class BudgetQuantiles:
     """5, 50 and 95 % quantiles of the draws of a run.
 
-    ``budget`` and ``years``: Datasets with a ``quantile`` dimension first and the dims
+    ``budget`` (None when asked for the years only) and ``years``: Datasets with a
+    ``quantile`` dimension first and the dims
     of the budget (``deposition`` [mol m-2] per component, ``total_deposition`` per
     total, ``oxidized_N``, ``reduced_N`` [mol m-2], ``potential_acidity`` [eq ha-1]);
     ``span``: the same for the mean yearly rate of the years that pass completeness
@@ -419,7 +420,8 @@ def _nanmean(v, axis):
     return np.where(n > 0, s / np.maximum(n, 1), np.nan)
 
 
-def monte_carlo(result, study, options: UncertaintyOptions, layers=None) -> BudgetQuantiles:
+def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrides=None,
+                years_only=False) -> BudgetQuantiles:
     """Quantiles of every component and total of a run, from ``options.draws`` draws.
 
     Parameters
@@ -430,6 +432,10 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None) -> Budg
     options : UncertaintyOptions
     layers : dict, optional
         ``{"budget": LinearLayer, "years": LinearLayer}`` already built.
+    overrides : dict, optional
+        The site overrides `result` was run with (the apps' ``Study.run(overrides=)``).
+    years_only : bool
+        The yearly budget and the span only (``budget`` of the result is None).
 
     Returns
     -------
@@ -438,15 +444,18 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None) -> Budg
     if options.draws < 1:
         raise ValueError("UncertaintyOptions.draws must be >= 1 for a Monte Carlo")
     if layers is None:
-        layers = {"budget": linear_layer(result, study, "budget")}
-        layers["years"] = (layers["budget"] if result.years is result.budget
-                           else linear_layer(result, study, "years"))
+        layers = {} if years_only else {"budget": linear_layer(result, study, "budget", overrides)}
+        layers["years"] = (layers["budget"] if result.years is result.budget and not years_only
+                           else linear_layer(result, study, "years", overrides))
     years = np.concatenate([lay.period_year for lay in layers.values()])
     year0, n_years = int(years.min()), int(years.max() - years.min() + 1)
     q = np.asarray(QUANTILES)
     out = {}
     span_c, span_t = [], []
-    for which, lay in layers.items():
+    for which, lay in sorted(layers.items(), key=lambda kv: kv[0] != "years"):
+        if which == "budget" and lay is layers.get("years"):
+            out[which] = out["years"]                # a yearly run: the same draws
+            continue
         ds = lay.budget
         n_s, n_r, n_p, n_c = ds["deposition"].shape
         comp_q = np.full((len(q), n_s, n_r, n_p, n_c), np.nan)
@@ -483,7 +492,7 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None) -> Budg
                               {"units": "mol m-2 yr-1"})},
         coords={"quantile": q, "site": yds["site"].values, "receptor": yds["receptor"].values,
                 "component": yds["component"].values, "total": list(TOTALS)})
-    return BudgetQuantiles(out["budget"], out["years"], span, options)
+    return BudgetQuantiles(out.get("budget"), out["years"], span, options)
 
 
 # ------------------------------------------------------------------------------ outputs
