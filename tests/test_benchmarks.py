@@ -150,3 +150,11 @@ def test_network_generator_and_guard(tmp_path, capsys):
     assert rows[0]["peak_rss_mb"] > 0 and rows[0]["wall_s"] > 0
     assert rows[1]["status"].startswith("not run")
     assert "not run" in capsys.readouterr().out
+def test_uncertainty_benchmark_times_a_site_year(scenario, capsys):
+    bench = _load("uncertainty")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        out = bench.main(["--scenario", str(scenario), "--site", "ridge", "--year", "2021",
+                          "--draws", "50", "--repeat", "1"])
+    assert set(out) == {"layer_s", "site_year_s", "network_year_s"}
+    assert "1,000 draws of the site-year" in capsys.readouterr().out

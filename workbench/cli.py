@@ -1,4 +1,4 @@
-"""Command line: ``workbench run | check | demo`` (also ``python -m workbench``).
+"""Command line: ``workbench run | check | demo | sensitivity`` (also ``python -m workbench``).
 
 Every failure ends in one line ``error: ...`` on stderr that says where and what to do,
 with a non-zero exit code (2; 130 after Ctrl-C), never a traceback: the workbench's own
@@ -128,6 +128,15 @@ def cmd_demo(args) -> int:
     return 0
 
 
+def cmd_sensitivity(args) -> int:
+    from .analysis.sensitivity import write_sensitivity
+    written = write_sensitivity(args.scenario, args.out, args.overwrite, args.quiet)
+    print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
+    for name in written:
+        print(f"  {name}")
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(prog="workbench", description="Wet and dry deposition "
                                 "budgets of sulfur and nitrogen.")
@@ -145,6 +154,13 @@ def build_parser() -> argparse.ArgumentParser:
                    help="replace a non-empty output folder whole")
     r.add_argument("--quiet", action="store_true", help="no progress bar")
     r.set_defaults(func=cmd_run)
+    g = sub.add_parser("sensitivity", help="Sobol indices and a tornado of the budget totals "
+                       "([sensitivity] section of the scenario)")
+    g.add_argument("scenario", type=Path)
+    g.add_argument("--out", type=Path, required=True, help="output folder (created if needed)")
+    g.add_argument("--overwrite", action="store_true", help="replace files in a non-empty folder")
+    g.add_argument("--quiet", action="store_true", help="no progress bar")
+    g.set_defaults(func=cmd_sensitivity)
     d = sub.add_parser("demo", help="run the bundled demo scenario into a fresh folder")
     d.add_argument("--out", type=Path, default=None, help="output folder (default: a new "
                    "workbench-demo-<time> folder here)")

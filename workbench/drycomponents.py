@@ -177,22 +177,23 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=Non
         """The air side of a species' rows (independent of Vd), keyed by content."""
         key = ("inputs", sp, tuple(sites), len(times), fkey, fingerprint(air_in, sp))
         if key not in shared:
-            rows, site_of, conc, _, quantity, weight, n_air, notes = _inputs_for(
+            rows, site_of, conc, cens, quantity, weight, n_air, notes = _inputs_for(
                 air_in, sp, vd, met, fopt)
             shared[key] = (rows, pd.Index(sites).get_indexer(site_of), conc[rows], quantity,
                            weight, n_air, notes, air_in["start"].values[rows],
-                           air_in["end"].values[rows])
+                           air_in["end"].values[rows], np.asarray(cens)[rows])
         return shared[key]
 
     def one(air_in, sp, vd_sp, key):
         key = ("rows", sp, id(vel[vd_sp]), tuple(sites), fkey, fingerprint(air_in, sp))
         if key not in shared:
             vd, v_np = arrays(vd_sp)[:2]
-            _, si, conc, quantity, weight, n_air, notes, t0, t1 = inputs(air_in, sp, vd)
+            _, si, conc, quantity, weight, n_air, notes, t0, t1, cens = inputs(air_in, sp, vd)
             r = deposition_rows(conc, quantity, si, t0, t1, times, v_np, n_air, weight)
             r["site_index"] = si
             r["conc"] = conc
             r["quantity"] = quantity
+            r["censored"] = cens                 # below detection (value substituted)
             shared[key] = (r, notes, vel[vd_sp])     # the Vd held: its id stays unique
         return shared[key][:2]
 

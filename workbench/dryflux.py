@@ -359,7 +359,7 @@ def period_axes(periods) -> PeriodAxes:
 
 
 def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
-                     starts=None, ends=None):
+                     starts=None, ends=None, per_row=False):
     """Numpy core of :func:`to_periods`.
 
     Parameters
@@ -379,6 +379,10 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
         mean Vd of its hours inside, so that the split among reporting periods and the
         coverage follow the real overlap.
 
+    per_row : bool
+        Also return each sampling period's part of the result (for the Monte Carlo of
+        :mod:`workbench.analysis.uncertainty`, which draws errors per sampling period).
+
     Returns
     -------
     deposition : ndarray (S, R, P) [mol m-2], scaled to the whole period from the
@@ -390,6 +394,9 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
         Hours of the period in sampling periods whose deposition is known (a
         concentration and at least one hour with a deposition velocity and, for a
         mixing ratio, the molar density of air); at most `covered_hours`.
+    rows : ndarray (n, P, R) [mol m-2], only with `per_row` (a fifth value)
+        Each sampling period's contribution to `deposition` (its site's row), so that
+        ``deposition[s] == rows[site_index == s].sum(0).T`` where covered.
     """
     periods = period_axes(periods)
     n_r, n_p = cs.shape[1], len(periods)
@@ -433,7 +440,12 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
     with np.errstate(invalid="ignore", divide="ignore"):
         scale = np.where(flux_hours > 0, period_hours[None, None, :] / flux_hours, np.nan)
     coverage = np.clip(cov_hours / np.maximum(period_hours[None, :], 1), 0, 1)
-    return dep_out * scale, coverage, cov_hours, np.minimum(flux_hours, cov_hours[:, None, :])
+    flux_hours = np.minimum(flux_hours, cov_hours[:, None, :])
+    if per_row:
+        rows = (dep * scale[site_index].transpose(0, 2, 1) if len(a)
+                else np.zeros((0, n_p, n_r)))
+        return dep_out * scale, coverage, cov_hours, flux_hours, rows
+    return dep_out * scale, coverage, cov_hours, flux_hours
 
 
 def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):

@@ -60,6 +60,8 @@ def render_report(result, study, scenario=None) -> str:
                  "eq/ha and every component are in budget.csv.</p>")
     per = totals[totals["period"] != "span"]
     parts.append(_pivot_html(per))
+    from .analysis.uncertainty import report_section
+    parts.extend(report_section(t, _table_html))
     parts.append("<h2>Dry nitrogen: the gas/particle bracket [kg N/ha per period]</h2>")
     parts.append("<p>Ammonium nitrate on filters shifts mass between HNO3 and pNO3 and between "
                  "NH3 and pNH4; HNO3 deposits far faster than pNO3. The bracket puts each pair "

@@ -50,8 +50,11 @@ def option_sections() -> dict:
     """Scenario sections built from the options dataclasses: name -> dataclass."""
     from .budget import BudgetOptions
     from .drydep import DryOptions
+    from .analysis.sensitivity import SensitivityOptions
+    from .analysis.uncertainty import UncertaintyOptions
     from .wet import WetOptions
-    return {"wet": WetOptions, "dry": DryOptions, "budget": BudgetOptions}
+    return {"wet": WetOptions, "dry": DryOptions, "budget": BudgetOptions,
+            "uncertainty": UncertaintyOptions, "sensitivity": SensitivityOptions}
 
 
 def _type_ok(value, default) -> bool:

@@ -270,6 +270,8 @@ def write_run(result, study, scenario, out, overwrite=False, progress=None, fold
     if folder is None:
         with RunFolder(out, input_paths(study, scenario), overwrite) as f:
             return write_run(result, study, scenario, out, progress=progress, folder=f)
+    from .analysis.uncertainty import with_uncertainty     # quantiles when [uncertainty] draws > 0
+    result = with_uncertainty(result, study, scenario)
     names = write_files(result, study, scenario, folder.path, progress, started)
     try:
         final = folder.commit()

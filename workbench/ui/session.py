@@ -241,6 +241,9 @@ class Session:
         sites = {k: dict(v) for k, v in settings.overrides.items() if v}
         if sites:
             raw["sites"] = copy.deepcopy(sites)
+        for name in ("uncertainty", "sensitivity"):     # not set in the app: kept as given
+            if sc.given.get(name):
+                raw[name] = copy.deepcopy(sc.given[name])
         return raw, comments
 
     def save_scenario(self, path, settings: Settings, first_year=None, last_year=None) -> Path:

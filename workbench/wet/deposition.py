@@ -111,6 +111,55 @@ def _climatology(screened, opt, met, site_idx, n_site, species, mult):
     return by_season, whole
 
 
+def sample_weights(screened: xr.Dataset, ptable: pd.DataFrame, options: WetOptions,
+                   met: xr.Dataset | None = None):
+    """The (sample, period) pieces of the screened samples and their precipitation weights.
+
+    Parameters
+    ----------
+    screened : xarray.Dataset
+        Output of :func:`workbench.wet.screen` (dim ``sample``).
+    ptable : pandas.DataFrame
+        A period table (:func:`workbench.periods.make_periods`), index 0..P-1.
+    options : WetOptions
+    met : xarray.Dataset, optional
+        Hourly ``precipitation`` [mm] for the ``straddle="met"`` rule.
+
+    Returns
+    -------
+    table : pandas.DataFrame
+        One row per piece: ``interval`` (sample index), ``period`` (row of `ptable`),
+        ``share`` [1] of the sample in the period.
+    weight : ndarray
+        :math:`w_{ip} = P_i f_{ip} / m_i` [mm] per piece (0 where the gauge is not valid).
+    gauge_profile : CoverageProfile
+        Hours covered by gauge-valid samples.
+    origin : numpy.datetime64
+    span : float
+        Origin and length [h] of the hour axis of the profiles.
+    mult : ndarray
+        Mean multiplicity :math:`m_i` of each sample [1] (collocated samplers).
+    """
+    sites = np.unique(screened.variables["site"].values.astype(str))
+    site_idx = pd.Index(sites).get_indexer(screened.variables["site"].values.astype(str))
+    gauge_ok = screened.variables["gauge_valid"].values.astype(bool)
+    depth = screened.variables["gauge_depth_used"].values.astype(float)
+    s_all = screened.variables["start"].values.astype("datetime64[ns]")
+    e_all = screened.variables["end"].values.astype("datetime64[ns]")
+    p_s = ptable["start"].values.astype("datetime64[ns]")
+    p_e = ptable["end"].values.astype("datetime64[ns]")
+    origin = min(s_all.min(), p_s.min()) if len(s_all) else p_s.min()
+    span = (max(e_all.max() if len(e_all) else p_e.max(), p_e.max()) - origin) / np.timedelta64(1, "h")
+    gauge_prof = CoverageProfile(site_idx[gauge_ok], s_all[gauge_ok], e_all[gauge_ok], len(sites),
+                                 origin, span)
+    mult = np.where(gauge_ok, gauge_prof.mean_multiplicity(site_idx, s_all, e_all), 1.0)
+    mult = np.where(mult >= 1.0, mult, 1.0)
+    table = _split(screened, ptable, options, met)
+    i = table["interval"].values
+    weight = np.where(gauge_ok[i], depth[i] * table["share"].values / mult[i], 0.0)
+    return table, weight, gauge_prof, origin, span, mult
+
+
 def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptions(),
                    met: xr.Dataset | None = None) -> xr.Dataset:
     """Precipitation-weighted means, completeness and wet deposition per site and period.
@@ -176,28 +225,18 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     species = _species_list(screened)
     status = screened.variables["status"].values.astype(str)
     used_s = screened.variables["used"].values.astype(bool)
-    gauge_ok = screened.variables["gauge_valid"].values.astype(bool)
-    depth = screened.variables["gauge_depth_used"].values.astype(float)
     covering = used_s | (status == "dry")
 
     s_all = screened.variables["start"].values.astype("datetime64[ns]")
     e_all = screened.variables["end"].values.astype("datetime64[ns]")
     p_s = ptable["start"].values.astype("datetime64[ns]")
     p_e = ptable["end"].values.astype("datetime64[ns]")
-    origin = min(s_all.min(), p_s.min()) if len(s_all) else p_s.min()
-    span = (max(e_all.max() if len(e_all) else p_e.max(), p_e.max()) - origin) / np.timedelta64(1, "h")
-    gauge_prof = CoverageProfile(site_idx[gauge_ok], s_all[gauge_ok], e_all[gauge_ok], n_site,
-                                 origin, span)
+    table, weight, gauge_prof, origin, span, mult = sample_weights(screened, ptable, opt, met)
     cover_prof = CoverageProfile(site_idx[covering], s_all[covering], e_all[covering], n_site,
                                  origin, span)
-    mult = np.where(gauge_ok, gauge_prof.mean_multiplicity(site_idx, s_all, e_all), 1.0)
-    mult = np.where(mult >= 1.0, mult, 1.0)
-
-    table = _split(screened, ptable, opt, met)
     i = table["interval"].values
     flat = site_idx[i] * n_per + table["period"].values
     n_flat = n_site * n_per
-    weight = np.where(gauge_ok[i], depth[i] * table["share"].values / mult[i], 0.0)
     used = used_s[i]
     shape = (n_site, n_per)
 

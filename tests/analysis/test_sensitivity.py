@@ -1,0 +1,154 @@
+"""Sobol indices and the tornado of the budget totals.
+
+Reference for the linear additive case: for Y = sum_i a_i X_i with independent X_i
+uniform on [l_i, h_i], Var(a_i X_i) = a_i^2 (h_i - l_i)^2 / 12 and the first-order and
+total indices both equal the variance share V_i / sum V (common practice: textbook
+variance decomposition; Saltelli et al. 2010, Comput. Phys. Commun. 181, 259).  The
+estimators are SALib's (the reference library of the issue); the tolerance is their
+95 % bootstrap interval plus 0.02.
+"""
+import dataclasses
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from workbench.analysis import sensitivity as S
+from workbench.analysis.uncertainty import COMPONENTS
+
+pytest.importorskip("SALib")
+
+
+def _base(sc):
+    return {"wet": sc.options["wet"], "dry": sc.options["dry"], "budget": sc.options["budget"],
+            "fixed_velocity": sc.fixed_velocity}
+
+
+KW = {"resolution": "month", "start": "2021-02-01", "end": "2021-03-01"}
+
+
+def _j(species):
+    return next(j for j, c in enumerate(COMPONENTS) if c[2] == species and c[1] == "dry")
+
+
+def test_sobol_of_a_linear_additive_total_gives_the_variance_shares(tiny):
+    sc, study, res, _ = tiny
+    ranges = {"vd_SO2": (0.5, 1.5), "vd_pSO4": (0.2, 3.0), "vd_NH3": (0.5, 2.0)}
+    opt = S.SensitivityOptions(samples=1024, seed=5, factors=ranges)
+    frame = S.sobol(study, _base(sc), opt, KW)
+    dep = res.budget["deposition"].values[0, 0, 0]
+    # S dry = D_SO2 F_SO2 + D_pSO4 F_pSO4: additive in independent uniform factors
+    v = {f: (dep[_j(f[3:])] * (ranges[f][1] - ranges[f][0])) ** 2 / 12 for f in ("vd_SO2", "vd_pSO4")}
+    share = {f: v[f] / sum(v.values()) for f in v}
+    share["vd_NH3"] = 0.0                            # NH3 holds no S
+    got = frame[(frame["element"] == "S") & (frame["quantity"] == "dry")].set_index("factor")
+    for f, want in share.items():
+        assert abs(got.loc[f, "S1"] - want) <= got.loc[f, "S1_conf"] + 0.02, f
+        assert abs(got.loc[f, "ST"] - want) <= got.loc[f, "ST_conf"] + 0.02, f
+    assert list(frame.columns) == ["site", "receptor", "period", "element", "quantity",
+                                   "factor", "S1", "S1_conf", "ST", "ST_conf"]
+
+
+def test_same_seed_same_numbers(tiny):
+    sc, study, _, _ = tiny
+    opt = S.SensitivityOptions(samples=32, seed=9)
+    a = S.sobol(study, _base(sc), opt, KW)
+    b = S.sobol(study, _base(sc), opt, KW)
+    pd.testing.assert_frame_equal(a, b)
+    c = S.sobol(study, _base(sc), dataclasses.replace(opt, seed=10), KW)
+    assert not np.allclose(a["S1"], c["S1"])
+
+
+def test_tornado_moves_one_factor_at_a_time(tiny):
+    sc, study, res, _ = tiny
+    opt = S.SensitivityOptions(factors={"vd_SO2": (0.5, 1.5), "gauge_catch": (0.9, 1.1),
+                                        "wetness_rule": ("met", "always_wet")})
+    t = S.tornado(study, _base(sc), opt, KW)
+    row = t[(t["element"] == "S") & (t["quantity"] == "dry") & (t["factor"] == "vd_SO2")].iloc[0]
+    so2 = res.budget["deposition"].values[0, 0, 0, _j("SO2")] * 32.06e-3 * 1e4    # kg S/ha
+    assert row["output_low"] == pytest.approx(row["output_base"] - 0.5 * so2, rel=1e-4)
+    assert row["output_high"] == pytest.approx(row["output_base"] + 0.5 * so2, rel=1e-4)
+    gauge = t[(t["element"] == "S") & (t["quantity"] == "wet") & (t["factor"] == "gauge_catch")].iloc[0]
+    assert gauge["output_high"] / gauge["output_base"] == pytest.approx(1.1, rel=1e-9)
+    # the wetness rule does not reach fixed velocities: no change
+    wr = t[(t["factor"] == "wetness_rule") & (t["quantity"] == "total")]
+    assert (wr["output_low"] == wr["output_base"]).all() and (wr["output_high"] == wr["output_base"]).all()
+    assert set(wr["low"]) == {"met"} and set(wr["high"]) == {"always_wet"}
+
+
+def test_options_are_checked():
+    with pytest.raises(ValueError, match="power of 2"):
+        S.SensitivityOptions(samples=100)
+    with pytest.raises(ValueError, match="unknown sensitivity factor"):
+        S.SensitivityOptions(factors={"vd_SO2": (0.5, 1.5), "rc_scale": (0.5, 2.0)})
+    with pytest.raises(ValueError, match="low < high"):
+        S.SensitivityOptions(factors={"vd_SO2": (1.5, 0.5), "gauge_catch": (0.9, 1.1)})
+    with pytest.raises(ValueError, match="wetness_rule"):
+        S.SensitivityOptions(factors={"vd_SO2": (0.5, 1.5), "wetness_rule": ("met", "soggy")})
+
+
+def test_engine_factors_change_the_dry_options():
+    from workbench.drydep import DryOptions
+    dry = S.apply_engine(DryOptions(), {"fine_fraction_pNO3": 0.2, "fine_mmd_pSO4": 0.6e-6,
+                                        "z0_grass": 0.05, "wetness_rule": "always_dry"})
+    assert dry.particle_modes["pNO3"].fine_fraction == 0.2
+    assert dry.particle_modes["pSO4"].fine.mmd == 0.6e-6
+    assert dry.roughness["grass"] == (0.05, None)
+    assert dry.wetness_rule == "always_dry"
+    assert S.apply_engine(DryOptions(), {"wetness_rule": None}) == DryOptions()
+
+
+def test_cli_writes_the_sensitivity_folder(tiny, tmp_path):
+    from workbench.cli import main
+    sc, _, _, _ = tiny
+    assert main(["sensitivity", str(sc.path), "--out", str(tmp_path / "sens"), "--quiet"]) == 0
+    frame = pd.read_csv(tmp_path / "sens" / "sensitivity.csv")
+    assert list(frame.columns) == ["site", "receptor", "period", "element", "quantity",
+                                   "factor", "S1", "S1_conf", "ST", "ST_conf"]
+    assert set(frame["factor"]) == {"vd_SO2", "gauge_catch", "wetness_rule"}
+    assert (tmp_path / "sens" / "tornado.csv").exists()
+    html = (tmp_path / "sens" / "sensitivity.html").read_text()
+    assert "Sobol indices" in html and "authority" in html
+
+
+def test_figure_spec_has_sobol_bars_and_tornado():
+    from workbench.ui.figures_sensitivity import sensitivity_figure, sensitivity_spec
+    keys = {"site": "a", "receptor": "grass", "period": "2021", "element": "N",
+            "quantity": "total"}
+    sob = pd.DataFrame([{**keys, "factor": f, "S1": s1, "S1_conf": 0.01, "ST": st,
+                         "ST_conf": 0.02} for f, s1, st in (("vd_NH3", 0.6, 0.65),
+                                                             ("gauge_catch", 0.3, 0.32))])
+    tor = pd.DataFrame([{**keys, "factor": f, "low": "0.5", "high": "2.0", "base": "1.0",
+                         "output_low": lo, "output_high": hi, "output_base": 10.0}
+                        for f, lo, hi in (("vd_NH3", 8.0, 14.0), ("gauge_catch", 9.5, 10.5))])
+    spec = sensitivity_spec(sob, tor, "a", "grass", "2021", "N", "total")
+    names = [t["name"] for t in spec["data"]]
+    assert names == ["first order", "total", "factor low", "factor high"]
+    assert spec["data"][1]["y"] == ["gauge_catch", "vd_NH3"]          # sorted by ST
+    assert spec["data"][3]["x"] == [0.5, 4.0]                          # high - base
+    assert spec["data"][2]["base"] == 10.0
+    assert len(sensitivity_figure(sob, tor, "a", "grass", "2021").data) == 4
+
+
+def test_sobol_explorer_shows_bars_and_tornado(tiny):
+    from workbench.ui.app_sobol import SobolExplorer
+    from workbench.ui.session import Session
+    sc, _, _, _ = tiny
+    app = SobolExplorer(Session.open(sc.path), output="S dry", samples=16)
+    assert set(app.sobol["factor"]) == {"vd_SO2", "gauge_catch", "wetness_rule"}
+    assert [t.name for t in app.fig.data] == ["first order", "total", "factor low", "factor high"]
+    assert "vd_SO2" in app.fig.data[0].y
+    assert "engine runs" in app.bar_w.value                 # tqdm's bar, in the app
+    app.output_w.value = "S wet"                             # redrawn from the same analysis
+    assert "gauge_catch" in app.fig.data[0].y
+
+
+def test_scenario_saved_from_the_apps_keeps_the_analysis_sections(tiny, tmp_path):
+    from workbench.scenario import load_scenario
+    from workbench.ui.session import Session
+    sc, _, _, _ = tiny
+    session = Session.open(sc.path)
+    path = session.save_scenario(sc.path.parent / "saved.toml", session.baseline)
+    back = load_scenario(path)
+    assert back.options["uncertainty"] == sc.options["uncertainty"]
+    assert back.options["sensitivity"] == sc.options["sensitivity"]

@@ -1,0 +1,208 @@
+"""The linear layer of a budget: each component as a sum of per-sample contributions.
+
+The budget's components are computed from period sums (:mod:`workbench.budget`).  For
+a Monte Carlo draw the errors that are random per sample (an analysis, a gauge depth)
+must act on each sample before the sum, not on the sum, or the variance comes out
+wrong.  This module takes the computed pieces of a run once and keeps, per site:
+
+* dry: each air-sampling period's contribution to each reporting period and receptor
+  ``A[n, P, R]`` [mol m-2] (:func:`workbench.dryflux.share_to_periods` with
+  ``per_row``), whether its concentration was below detection, and the share of its
+  hours whose Vd was gap-filled ``phi[n, R]`` [1];
+* wet: each (sample, period) piece's precipitation weight ``w`` [mm], the sample's
+  concentrations [mol m-3] and whether they were valid or below detection, and which
+  periods had their PWM filled from the multi-year seasonal means.
+
+:func:`linear_layer` is the only function that reads a :class:`~workbench.pipeline.Study`;
+everything downstream takes these arrays only, so a draw never re-runs the engine.
+Units: deposition [mol m-2 of element], weights [mm], concentrations [mol m-3].
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from ..budget import COMPONENTS
+
+#: Dry species of the budget, in the order of :data:`workbench.budget.COMPONENTS`.
+DRY_SPECIES = tuple(c[2] for c in COMPONENTS if c[1] == "dry")
+#: Wet ions of the budget, in the order of :data:`workbench.budget.COMPONENTS`.
+WET_IONS = tuple(c[2] for c in COMPONENTS if c[1] == "wet")
+
+
+@dataclass
+class DryPieces:
+    """Per-sample contributions of one dry species at one site."""
+
+    contrib: np.ndarray      #: (n, P, R) [mol m-2] each sampling period's part
+    censored: np.ndarray     #: (n,) bool, concentration below detection (substituted)
+    filled: np.ndarray       #: (n, R) [1] share of the row's hours with a gap-filled Vd
+    row_id: np.ndarray       #: (n,) int, row number within the species (stable per site)
+
+
+@dataclass
+class WetPieces:
+    """(sample, period) pieces of the precipitation samples of one site."""
+
+    sample: np.ndarray       #: (m,) int, local sample number 0..n_samples-1
+    period: np.ndarray       #: (m,) int, reporting period
+    weight: np.ndarray       #: (m,) [mm] w = P_i f_ip / m_i
+    conc: dict               #: ion -> (m,) [mol m-3], 0 where not valid
+    valid: dict              #: ion -> (m,) bool, used sample with a value
+    censored: dict           #: ion -> (m,) bool, below detection
+    n_samples: int
+
+
+@dataclass
+class SiteLayer:
+    dry: dict = field(default_factory=dict)      #: species -> DryPieces
+    wet: WetPieces | None = None
+    wet_filled: np.ndarray | None = None         #: (P,) bool, PWM from the climatology
+    pwm: dict = field(default_factory=dict)      #: ion -> (P,) point PWM [mol m-3]
+
+
+@dataclass
+class LinearLayer:
+    """The pieces of one budget Dataset (a resolution), per site.
+
+    Attributes
+    ----------
+    budget : xarray.Dataset
+        The point budget (dims site, receptor, period, component).
+    sites : list of SiteLayer
+        In the order of ``budget.site``.
+    period_year : ndarray (P,) of int
+        Year of each period, for the factors that are systematic within a site-year.
+    wet_component : dict
+        Component index -> wet ion or ``"nssSO4"``.
+    tracer : str
+        Sea-salt tracer of the non-sea-salt sulfate.
+    """
+
+    budget: object
+    sites: list
+    period_year: np.ndarray
+    wet_component: dict
+    tracer: str = "Na"
+
+
+def period_years(periods: pd.DataFrame) -> np.ndarray:
+    """Year of each period [int]: its ``year`` column, else the year it starts."""
+    year = periods["year"].to_numpy()
+    start = pd.DatetimeIndex(periods["start"]).year.to_numpy()
+    return np.where(year > 0, year, start).astype(int)
+
+
+def _dry_layers(rows, periods, sites, n_r):
+    from ..dryflux import period_axes, share_to_periods
+    out = [dict() for _ in sites]
+    if rows is None:
+        return out
+    axes = period_axes(periods)
+    times = rows["times"]
+    row_sites = list(rows["sites"])
+    for sp, r in rows["species"].items():
+        _, _, _, _, per_row = share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"],
+                                            r["cs"], len(row_sites), axes, times, r["start"],
+                                            r["end"], per_row=True)
+        _, c_fill = rows["vd_cum"][sp]
+        si, a, b = r["site_index"], r["a"], r["b"]
+        filled = (c_fill[si, :, b] - c_fill[si, :, a]) / np.maximum(b - a, 1)[:, None]
+        cens = np.asarray(r.get("censored", np.zeros(len(si), bool)), bool)
+        per_row = np.where(np.isfinite(per_row), per_row, 0.0)
+        for k, s in enumerate(sites):
+            if s not in row_sites:
+                continue
+            # the site's rows that reach a reporting period (the others add nothing)
+            sel = np.flatnonzero((si == row_sites.index(s))
+                                 & (per_row != 0).any(axis=(1, 2)))
+            if not len(sel):
+                continue
+            out[k][sp] = DryPieces(per_row[sel][:, :, :n_r], cens[sel], filled[sel], sel)
+    return out
+
+
+def _wet_layers(screened, wet, periods, wet_options, met, sites, ions):
+    from ..wet.deposition import sample_weights
+    out = [None] * len(sites)
+    fills = [None] * len(sites)
+    pwms = [dict() for _ in sites]
+    if screened is None or wet is None:
+        return out, fills, pwms
+    ptable = periods.reset_index(drop=True)
+    table, weight, *_ = sample_weights(screened, ptable, wet_options, met)
+    i = table["interval"].to_numpy()
+    p = table["period"].to_numpy()
+    site_of = screened.variables["site"].values.astype(str)
+    used = screened.variables["used"].values.astype(bool)
+    wet_sites = [str(s) for s in wet["site"].values]
+    for k, s in enumerate(sites):
+        sel = np.flatnonzero(site_of[i] == s)
+        if s in wet_sites:
+            w = wet.sel(site=s)
+            fills[k] = np.asarray(w["filled"].values, bool)
+            pwms[k] = {ion: np.asarray(w[f"pwm_{ion}"].values, float)
+                       for ion in ions if f"pwm_{ion}" in w}
+        if not len(sel):
+            continue
+        local, inverse = np.unique(i[sel], return_inverse=True)
+        conc, valid, cens = {}, {}, {}
+        for ion in ions:
+            if ion not in screened:
+                continue
+            c = np.asarray(screened.variables[ion].values, float)[i[sel]]
+            ok = used[i[sel]] & np.isfinite(c)
+            conc[ion], valid[ion] = np.where(ok, c, 0.0), ok
+            cn = f"{ion}_censored"
+            cens[ion] = (np.asarray(screened.variables[cn].values, bool)[i[sel]]
+                         if cn in screened else np.zeros(len(sel), bool))
+        out[k] = WetPieces(inverse, p[sel], np.where(np.isfinite(weight[sel]), weight[sel], 0.0),
+                           conc, valid, cens, len(local))
+    return out, fills, pwms
+
+
+def linear_layer(result, study, which: str = "budget", overrides=None) -> LinearLayer:
+    """The per-sample pieces of a run's budget (``which="budget"``) or of its years.
+
+    Parameters
+    ----------
+    result : workbench.pipeline.Result
+    study : workbench.pipeline.Study
+        The study that computed `result` (its stages are cached: nothing is re-run).
+    which : {"budget", "years"}
+    overrides : dict, optional
+        The site overrides `result` was run with (``Study.run(overrides=...)``).
+
+    Returns
+    -------
+    LinearLayer
+    """
+    opts = result.options
+    ds = result.budget if which == "budget" else result.years
+    wet_opt, dry_opt, bud_opt = opts["wet"], opts["dry"], opts["budget"]
+    if which == "budget":
+        periods = result.periods
+    else:
+        labels = list(ds["period"].values)
+        periods = study.periods("year", None, None, wet_opt.hydro_start_month)
+        if list(periods["label"]) != labels:       # a run with start / end
+            periods = study.periods("year", str(ds["period_start"].values[0]),
+                                    str(ds["period_end"].values[-1]), wet_opt.hydro_start_month)
+    sites = [str(s) for s in ds["site"].values]
+    receptors = opts.get("receptors")
+    rows = study.dry_rows(dry_opt, bud_opt, opts.get("fixed_velocity"), overrides, receptors)
+    if rows is not None and list(rows["receptors"]) != list(ds["receptor"].values):
+        raise ValueError("the dry rows' receptors differ from the budget's")
+    dry = _dry_layers(rows, periods, sites, ds.sizes["receptor"])
+    wet = study.wet(wet_opt, periods) if result.screened is not None else None
+    tracer = wet_opt.seasalt_tracer
+    nss = (bud_opt.sulfate_basis == "nss" and wet is not None and "dep_nssSO4" in wet)
+    ions = list(WET_IONS) + ([tracer] if nss and tracer not in WET_IONS else [])
+    wet_pieces, fills, pwms = _wet_layers(result.screened, wet, periods, wet_opt,
+                                          study.inputs.met, sites, ions)
+    layers = [SiteLayer(dry[k], wet_pieces[k], fills[k], pwms[k]) for k in range(len(sites))]
+    wet_component = {j: ("nssSO4" if (sp == "SO4" and nss) else sp)
+                     for j, (_, path, sp) in enumerate(COMPONENTS) if path == "wet"}
+    return LinearLayer(ds, layers, period_years(periods), wet_component, tracer)

@@ -1,0 +1,129 @@
+"""Tables and report text of the Monte Carlo quantiles (budget.csv, summary.csv, report).
+
+See :func:`workbench.analysis.uncertainty.add_quantiles`, which calls these.
+"""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from ..budget import COMPONENTS
+from ..units import element_deposition_in
+
+#: Quantiles reported [1] and the suffixes of their columns.
+QUANTILES = (0.05, 0.5, 0.95)
+SUFFIXES = ("_p05", "_p50", "_p95")
+#: Totals of the budget (element_pathway), as in :func:`workbench.budget._totals`.
+TOTALS = ("S_wet", "S_dry", "S_total", "N_wet", "N_dry", "N_total")
+
+
+def _long(values, sites, receptors, periods, names, elements, pathways, species, fac):
+    """Rows (site, receptor, period, name) of quantile arrays (Q, S, R, P, N) [mol m-2]."""
+    n_q, n_s, n_r, n_p, n_n = values.shape
+    idx = np.indices((n_s, n_r, n_p, n_n)).reshape(4, -1)
+    el = np.asarray(elements)[idx[3]]
+    frame = pd.DataFrame({"site": np.asarray(sites)[idx[0]],
+                          "receptor": np.asarray(receptors)[idx[1]],
+                          "period": np.asarray(periods)[idx[2]], "element": el,
+                          "pathway": np.asarray(pathways)[idx[3]],
+                          "species": np.asarray(species)[idx[3]]})
+    for qi, suffix in enumerate(SUFFIXES):
+        v = values[qi].reshape(-1)
+        kg = np.where(el == "S", element_deposition_in(v, "S", "kg_ha"),
+                      element_deposition_in(v, "N", "kg_ha"))
+        eq = np.where(el == "S", element_deposition_in(v, "S", "eq_ha"),
+                      element_deposition_in(v, "N", "eq_ha"))
+        f = np.asarray(fac)[idx[2]]
+        frame["flux_kg_ha" + suffix] = kg
+        frame["flux_eq_ha" + suffix] = eq
+        frame["flux_kg_ha_yr" + suffix] = kg * f
+        frame["flux_eq_ha_yr" + suffix] = eq * f
+        frame["flux_mmol_m2" + suffix] = element_deposition_in(v, "N", "mmol_m2")
+    return frame
+
+
+def quantile_table(q, annual_factor) -> pd.DataFrame:
+    """The quantile columns of budget.csv, keyed by (site, receptor, period, element,
+    pathway, species), for the periods of the budget and the span rows.
+
+    Parameters
+    ----------
+    q : BudgetQuantiles
+    annual_factor : ndarray (P,)
+        Of the budget's periods [1].
+    """
+    b = q.budget
+    el = [c[0] for c in COMPONENTS]
+    pa = [c[1] for c in COMPONENTS]
+    sp = [c[2] for c in COMPONENTS]
+    t_el, t_pa = [t.split("_")[0] for t in TOTALS], [t.split("_")[1] for t in TOTALS]
+    per = [str(p) for p in b["period"].values]
+    parts = [_long(b["deposition"].values, b["site"].values, b["receptor"].values, per,
+                   sp, el, pa, sp, annual_factor),
+             _long(b["total_deposition"].values, b["site"].values, b["receptor"].values, per,
+                   TOTALS, t_el, t_pa, ["all"] * len(TOTALS), annual_factor)]
+    s = q.span
+    for var, names, e, p, spc in (("deposition", sp, el, pa, sp),
+                                  ("total_deposition", TOTALS, t_el, t_pa, ["all"] * len(TOTALS))):
+        v = s[var].values[:, :, :, None, :]                      # a period axis of one
+        frame = _long(v, s["site"].values, s["receptor"].values, ["span"], names, e, p, spc,
+                      [1.0])
+        for suffix in SUFFIXES:          # span rows: a yearly rate in both columns
+            frame["flux_kg_ha" + suffix] = frame["flux_kg_ha_yr" + suffix]
+            frame["flux_eq_ha" + suffix] = frame["flux_eq_ha_yr" + suffix]
+            frame["flux_mmol_m2" + suffix] = np.nan
+        parts.append(frame)
+    return pd.concat(parts, ignore_index=True)
+
+
+def summary_dataset(q) -> xr.Dataset:
+    """Totals [kg ha-1] and derived sums with their quantiles, dims (site, receptor, period)."""
+    b = q.budget
+    out = {}
+    for j, name in enumerate(TOTALS):
+        e = name.split("_")[0]
+        for qi, suffix in enumerate(SUFFIXES):
+            v = b["total_deposition"].values[qi, ..., j]
+            out[f"{name}_kg_ha{suffix}"] = (("site", "receptor", "period"),
+                                            element_deposition_in(v, e, "kg_ha"),
+                                            {"units": f"kg {e} ha-1"})
+    for name, e, unit in (("oxidized_N", "N", "kg_ha"), ("reduced_N", "N", "kg_ha")):
+        for qi, suffix in enumerate(SUFFIXES):
+            out[f"{name}_{unit}{suffix}"] = (("site", "receptor", "period"),
+                                             element_deposition_in(b[name].values[qi], e, unit),
+                                             {"units": "kg N ha-1"})
+    for qi, suffix in enumerate(SUFFIXES):
+        out[f"potential_acidity_eq_ha{suffix}"] = (("site", "receptor", "period"),
+                                                   b["potential_acidity"].values[qi],
+                                                   {"units": "eq ha-1"})
+    return xr.Dataset(out, coords={"site": b["site"].values, "receptor": b["receptor"].values,
+                                   "period": b["period"].values})
+
+
+def report_section(table, to_html) -> list:
+    """HTML parts of the report: the 5-95 % range of every total (none without draws).
+
+    Parameters
+    ----------
+    table : pandas.DataFrame
+        budget.csv rows, with the quantile columns of :func:`add_quantiles` or without.
+    to_html : callable
+        DataFrame -> HTML table text (the report's own).
+    """
+    import html
+    if "flux_kg_ha_yr_p05" not in table:
+        return []
+    tot = table[table["species"] == "all"]
+    cols = ["site", "receptor", "period", "element", "pathway", "flux_kg_ha_yr",
+            "flux_kg_ha_yr_p05", "flux_kg_ha_yr_p50", "flux_kg_ha_yr_p95", "status"]
+    frame = tot[cols].rename(columns={"flux_kg_ha_yr": "kg/ha/yr", "flux_kg_ha_yr_p05": "5 %",
+                                      "flux_kg_ha_yr_p50": "50 %", "flux_kg_ha_yr_p95": "95 %"})
+    return ["<h2>Uncertainty: 5-95 % range of every total [kg/ha/yr of S or N]</h2>",
+            "<p>" + html.escape(
+                "Quantiles of a Monte Carlo of the budget: Vd model factors (log-normal, "
+                "systematic per site-year), analytical and depth errors per sample, gauge "
+                "catch per site-year, gap-filled Vd and PWMs (docs/methods_uncertainty.md). "
+                "They bound the errors named there only; errors of the method itself "
+                "(omitted species and processes) are not in the range.") + "</p>",
+            to_html(frame)]

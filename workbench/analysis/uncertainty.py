@@ -1,0 +1,561 @@
+"""Correlated Monte Carlo of the budget on its linear layer.
+
+Every factor acts on pieces the engine has already computed (:mod:`.layer`), so a
+draw is a few matrix products per site and never re-runs the engine:
+
+* dry component of species *k* at site *s*, reporting period *p*, receptor *r*:
+
+  .. math:: D^{(d)}_{srpk} = F^{(d)}_{s,y(p),k} \\sum_n A_{npr}\\,
+            \\delta^{(d)}_n \\,(1 + \\phi_{nr} \\eta^{(d)}_n)
+
+  with :math:`A` the sampling period's contribution, :math:`F` the Vd model factor
+  (log-normal, median 1, systematic within a site-year, correlated among species
+  through the shared micrometeorology), :math:`\\delta` the analytical error of the
+  sample (random per sample), :math:`\\phi` the share of its hours with a gap-filled
+  Vd and :math:`\\eta` the error of the fill (random per sample);
+* wet component of ion *X*: :math:`D = \\bar C_p P_p` with, per draw,
+
+  .. math:: P_p = g_{s,y(p)} \\sum_i w_{ip} \\varepsilon_i, \\quad
+            \\bar C_p = \\frac{\\sum_{i\\,valid} w_{ip} \\varepsilon_i C_i \\delta_i}
+                              {\\sum_{i\\,valid} w_{ip} \\varepsilon_i}
+
+  with :math:`g` the gauge catch (systematic per site-year), :math:`\\varepsilon` the
+  depth error and :math:`\\delta` the analytical error (random per sample); a PWM
+  filled from the multi-year seasonal means gets its own error instead, and the
+  non-sea-salt sulfate is recomputed from the drawn SO4 and tracer PWMs.
+
+Each draw multiplies the point budget by its ratio to the point (the same arithmetic
+with every factor at 1), so a factor at 0 (GSD 1) leaves the numbers exactly as they
+are.  The factors, their correlation structure and their sources are in
+``docs/methods_uncertainty.md``.
+"""
+from __future__ import annotations
+
+import json
+from dataclasses import asdict, dataclass, field
+
+import numpy as np
+import xarray as xr
+
+from ..budget import COMPONENTS, OXIDIZED_N, REDUCED_N
+from ..units import element_deposition_in
+from .layer import DRY_SPECIES, LinearLayer, linear_layer
+from .quantile_tables import (QUANTILES, SUFFIXES, TOTALS, quantile_table,  # noqa: F401
+                              report_section, summary_dataset)
+
+
+#: Geometric standard deviation of the Vd model factor per species [1].  Values chosen
+#: from memory of the spread among inferential models in Flechard et al. (2011),
+#: Atmos. Chem. Phys. 11, 2703-2728 (a factor of about 2 for reactive N dry
+#: deposition, smaller for SO2 and HNO3 whose Vd is mostly aerodynamic).
+DEFAULT_VD_GSD = {"SO2": 1.5, "pSO4": 1.8, "HNO3": 1.4, "pNO3": 1.8, "pNH4": 1.8,
+                  "NH3": 2.0, "NO2": 2.0}
+
+
+@dataclass(frozen=True)
+class UncertaintyOptions:
+    """The Monte Carlo of the budget (scenario section ``[uncertainty]``).
+
+    Attributes
+    ----------
+    draws : int
+        Number of draws; 0 switches the Monte Carlo off (default).
+    seed : int
+        Seed of the random numbers: the same seed gives the same numbers.
+    vd_gsd : dict
+        species -> geometric standard deviation of the Vd model factor [1], log-normal
+        with median 1, systematic within a site-year; 1 removes it.  Defaults from
+        memory of the model spread in Flechard et al. (2011), ACP 11, 2703.
+    vd_shared_fraction : float
+        Share of the log-variance of every Vd factor that comes from the micrometeorology
+        (Ra, u*) common to all species at a site-year [1]; the rest is the species' own
+        surface and particle terms.  0.5 is our choice (no published value).
+    air_rel_sd : float
+        Relative standard deviation of an air concentration, random per sample [1]; 0.05
+        (network QA practice for filter packs and denuders, from memory).
+    precip_conc_rel_sd : float
+        Relative standard deviation of a precipitation concentration, random per sample
+        and ion [1]; 0.05 (network QA practice for ion chromatography, from memory).
+    gauge_catch_rel_sd : float
+        Relative standard deviation of the gauge catch, systematic per site-year [1];
+        0.05 (rain gauges, from memory; more where snow falls).
+    depth_rel_sd : float
+        Relative standard deviation of a sample's precipitation depth, random per
+        sample [1]; 0.05 (common practice, from memory).
+    censored_rel_sd : float
+        Relative standard deviation of a value below detection replaced by half the
+        limit [1]; 0.577 = 1/sqrt(3), a value uniform between 0 and the limit (common
+        practice).
+    vd_fill_rel_sd : float
+        Relative standard deviation of a gap-filled hourly Vd (mean diurnal cycle),
+        random per sampling period, applied to the share of its hours filled [1]; 0.3
+        (our choice, from memory of hour-to-hour Vd variability).
+    pwm_fill_rel_sd : float
+        Relative standard deviation of a PWM filled from the multi-year seasonal PWM,
+        random per period and ion [1]; 0.3 (from memory of year-to-year PWM variability).
+    """
+
+    draws: int = 0
+    seed: int = 12345
+    vd_gsd: dict = field(default_factory=lambda: dict(DEFAULT_VD_GSD))
+    vd_shared_fraction: float = 0.5
+    air_rel_sd: float = 0.05
+    precip_conc_rel_sd: float = 0.05
+    gauge_catch_rel_sd: float = 0.05
+    depth_rel_sd: float = 0.05
+    censored_rel_sd: float = 0.577
+    vd_fill_rel_sd: float = 0.3
+    pwm_fill_rel_sd: float = 0.3
+
+    def __post_init__(self):
+        for name in ("draws", "seed"):
+            v = getattr(self, name)
+            if isinstance(v, bool) or int(v) != v or v < 0:
+                raise ValueError(f"UncertaintyOptions.{name} = {v!r} must be an integer >= 0")
+            object.__setattr__(self, name, int(v))           # 1000.0 from a file -> 1000
+        for name in ("air_rel_sd", "precip_conc_rel_sd", "gauge_catch_rel_sd", "depth_rel_sd",
+                     "censored_rel_sd", "vd_fill_rel_sd", "pwm_fill_rel_sd"):
+            if not getattr(self, name) >= 0:
+                raise ValueError(f"UncertaintyOptions.{name} must be >= 0")
+        if not 0 <= self.vd_shared_fraction <= 1:
+            raise ValueError("UncertaintyOptions.vd_shared_fraction must lie in [0, 1]")
+        for sp, g in self.vd_gsd.items():
+            if sp not in DRY_SPECIES:
+                raise ValueError(f"UncertaintyOptions.vd_gsd: unknown species {sp!r}; "
+                                 f"expected one of {', '.join(DRY_SPECIES)}")
+            if isinstance(g, bool) or not isinstance(g, (int, float)) or g < 1:
+                raise ValueError(f"UncertaintyOptions.vd_gsd[{sp!r}] = {g!r} must be a number >= 1")
+
+    @classmethod
+    def from_dict(cls, given: dict) -> "UncertaintyOptions":
+        """From a scenario table: ``vd_gsd`` given for some species keeps the others."""
+        given = dict(given)
+        if "vd_gsd" in given:
+            given["vd_gsd"] = {**DEFAULT_VD_GSD, **given["vd_gsd"]}
+        return cls(**given)
+
+    def to_dict(self) -> dict:
+        return asdict(self)
+
+    def gsd(self, species: str) -> float:
+        return float(self.vd_gsd.get(species, 1.0))
+
+
+# ------------------------------------------------------------------------------ noise
+
+@dataclass
+class SiteNoise:
+    """The factors of the draws at one site (arrays with the draws first).
+
+    ``vd`` (D, Y, K) log-normal Vd factors [1] per year offset and dry species;
+    ``gauge`` (D, Y) gauge catch [1]; ``depth`` (D, n_samples); ``pconc`` ion ->
+    (D, n_samples) and ``air`` species -> (D, n_rows) multiplicative errors of one
+    sample [1] (below detection: their own spread); ``vd_fill`` species -> (D, n_rows)
+    relative errors of a filled Vd; ``pwm_fill`` ion -> (D, P) factors of a filled PWM.
+    Every factor is 1 (0 for ``vd_fill``) where its spread is 0.
+    """
+
+    vd: np.ndarray
+    gauge: np.ndarray
+    depth: np.ndarray | None
+    pconc: dict
+    air: dict
+    vd_fill: dict
+    pwm_fill: dict
+
+
+def _normal_factor(rng, sd, shape):
+    """1 + sd z, cut at 0 (a concentration or a depth cannot be negative) [1]."""
+    sd = np.asarray(sd, float)
+    if not np.any(sd > 0):
+        rng.standard_normal(shape)                     # the stream stays the same
+        return np.ones(shape)
+    return np.maximum(1.0 + sd * rng.standard_normal(shape), 0.0)
+
+
+def site_noise(layer_site, opt: UncertaintyOptions, n_draws: int, n_years: int, n_periods: int,
+               seed_key) -> SiteNoise:
+    """Draw the factors of one site (the same for any resolution of the same run).
+
+    Parameters
+    ----------
+    layer_site : SiteLayer
+    opt : UncertaintyOptions
+    n_draws, n_years, n_periods : int
+    seed_key : tuple of int
+        ``(seed, site number)``: each site has its own stream, so a site's numbers do
+        not depend on the other sites.
+    """
+    rng = np.random.default_rng(list(seed_key))
+    d = n_draws
+    z_shared = rng.standard_normal((d, n_years, 1))
+    z_own = rng.standard_normal((d, n_years, len(DRY_SPECIES)))
+    ln_gsd = np.log([opt.gsd(sp) for sp in DRY_SPECIES])
+    rho = opt.vd_shared_fraction
+    vd = np.exp(ln_gsd * (np.sqrt(rho) * z_shared + np.sqrt(1 - rho) * z_own))
+    gauge = _normal_factor(rng, opt.gauge_catch_rel_sd, (d, n_years))
+    wet = layer_site.wet
+    depth, pconc, pwm_fill = None, {}, {}
+    n_s = wet.n_samples if wet is not None else 0
+    depth = _normal_factor(rng, opt.depth_rel_sd, (d, n_s))
+    if wet is not None:
+        for ion in sorted(wet.conc):
+            cens = np.zeros(n_s, bool)
+            cens[wet.sample[wet.censored[ion]]] = True
+            sd = np.where(cens, opt.censored_rel_sd, opt.precip_conc_rel_sd)
+            pconc[ion] = _normal_factor(rng, sd, (d, n_s))
+    air, vd_fill = {}, {}
+    for sp in DRY_SPECIES:
+        if sp not in layer_site.dry:
+            continue
+        rows = layer_site.dry[sp]
+        sd = np.where(rows.censored, opt.censored_rel_sd, opt.air_rel_sd)
+        air[sp] = _normal_factor(rng, sd, (d, len(rows.censored)))
+        vd_fill[sp] = _normal_factor(rng, opt.vd_fill_rel_sd, (d, len(rows.censored))) - 1.0
+    # the filled PWMs per reporting period: a stream of their own, so that the
+    # factors above are the same for every resolution of the same run
+    rng_fill = np.random.default_rng(list(seed_key) + [1])
+    for ion in sorted(layer_site.pwm):
+        pwm_fill[ion] = _normal_factor(rng_fill, opt.pwm_fill_rel_sd, (d, n_periods))
+    return SiteNoise(vd, gauge, depth, pconc, air, vd_fill, pwm_fill)
+
+
+# ------------------------------------------------------------------------------ draws
+
+def _safe_ratio(num, den):
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(den != 0, num / np.where(den != 0, den, 1.0), 0.0)
+
+
+def dry_ratio(pieces, vd_factor, air, vd_fill):
+    """Draws of a dry component over the point: (D, R, P) [1].
+
+    Parameters
+    ----------
+    pieces : DryPieces
+        ``contrib`` (n, P, R) [mol m-2], ``filled`` (n, R) [1].
+    vd_factor : ndarray (D, P)
+        Vd factor of each draw and period [1].
+    air : ndarray (D, n)
+        Multiplicative error of each sample [1].
+    vd_fill : ndarray (D, n)
+        Relative error of each sample's filled Vd hours [1].
+    """
+    a = pieces.contrib
+    n, n_p, n_r = a.shape
+    flat = a.reshape(n, n_p * n_r)
+    total = flat.sum(0)
+    dev = (air - 1.0) @ flat + (air * vd_fill) @ (pieces.filled[:, None, :] * a).reshape(n, -1)
+    ratio = 1.0 + _safe_ratio(dev, total)
+    return (vd_factor[:, :, None] * ratio.reshape(-1, n_p, n_r)).transpose(0, 2, 1)
+
+
+def wet_ratios(wet, pwm_point, filled, gauge, depth, pconc, pwm_fill, n_periods, wanted,
+               tracer="Na"):
+    """Draws of the wet deposition of each ion over the point: ion -> (D, P) [1].
+
+    Parameters
+    ----------
+    wet : WetPieces
+    pwm_point : dict
+        ion -> (P,) point PWM [mol m-3] (for the non-sea-salt sulfate).
+    filled : ndarray (P,) of bool or None
+        PWM filled from the multi-year seasonal means.
+    gauge : ndarray (D, P)
+        Gauge catch factor per draw and period [1].
+    depth : ndarray (D, n_samples)
+    pconc, pwm_fill : dict
+        ion -> (D, n_samples) and (D, P) factors [1].
+    wanted : iterable of str
+        Ions (``SO4``, ``NO3``, ``NH4``) and ``nssSO4``.
+    """
+    onehot = np.zeros((len(wet.sample), n_periods))
+    onehot[np.arange(len(wet.sample)), wet.period] = 1.0
+    w = wet.weight[:, None] * onehot                                 # (m, P) [mm]
+    eps = depth[:, wet.sample]                                       # (D, m)
+    precip = 1.0 + _safe_ratio((eps - 1.0) @ w, w.sum(0))
+    pwm = {}
+    for ion in set(wanted) | ({"SO4", tracer} if "nssSO4" in wanted else set()):
+        if ion not in wet.conc:
+            continue
+        ok = wet.valid[ion][:, None] * w
+        cw = wet.conc[ion][:, None] * ok
+        num = 1.0 + _safe_ratio((eps * pconc[ion][:, wet.sample] - 1.0) @ cw, cw.sum(0))
+        den = 1.0 + _safe_ratio((eps - 1.0) @ ok, ok.sum(0))
+        r = num / den
+        if filled is not None and filled.any():
+            r = np.where(filled[None, :], pwm_fill[ion], r)
+        pwm[ion] = r
+    out = {}
+    for ion in wanted:
+        if ion == "nssSO4":
+            from ..wet.seasalt import non_seasalt
+            if "SO4" not in pwm or tracer not in pwm:
+                continue
+            so4, tr = pwm_point["SO4"], pwm_point[tracer]
+            point = non_seasalt(so4, tr, "SO4", tracer)
+            drawn = non_seasalt(so4 * pwm["SO4"], tr * pwm[tracer], "SO4", tracer)
+            r = np.where(np.isfinite(point) & (point != 0), _safe_ratio(drawn, point), 1.0)
+        elif ion in pwm:
+            r = pwm[ion]
+        else:
+            continue
+        out[ion] = gauge * precip * r
+    return out
+
+
+def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int) -> np.ndarray:
+    """Draws of every component at one site: (D, R, P, C) [mol m-2].
+
+    Parameters
+    ----------
+    layer : LinearLayer
+    site : int
+        Row of the site in ``layer.budget.site``.
+    noise : SiteNoise
+    year0 : int
+        Year of the first entry of the year axis of `noise`.
+    """
+    ds = layer.budget
+    point = ds["deposition"].values[site]                            # (R, P, C)
+    n_r, n_p, n_c = point.shape
+    d = noise.vd.shape[0]
+    yi = layer.period_year - year0
+    ratio = np.ones((d, n_r, n_p, n_c))
+    ls = layer.sites[site]
+    for j, (_, path, sp) in enumerate(COMPONENTS):
+        if path == "dry" and sp in ls.dry:
+            k = DRY_SPECIES.index(sp)
+            ratio[..., j] = dry_ratio(ls.dry[sp], noise.vd[:, yi, k], noise.air[sp],
+                                      noise.vd_fill[sp])
+    if ls.wet is not None:
+        wanted = set(layer.wet_component.values())
+        wr = wet_ratios(ls.wet, ls.pwm, ls.wet_filled, noise.gauge[:, yi], noise.depth,
+                        noise.pconc, noise.pwm_fill, n_p, wanted, layer.tracer)
+        for j, ion in layer.wet_component.items():
+            if ion in wr:
+                ratio[..., j] = wr[ion][:, None, :]
+    return point[None] * ratio
+
+
+def totals_of(comp: np.ndarray) -> dict:
+    """The totals and derived sums of component draws (..., C) [mol m-2].
+
+    Returns
+    -------
+    dict
+        ``S_wet`` ... ``N_total`` [mol m-2], ``oxidized_N``, ``reduced_N`` [mol m-2],
+        ``potential_acidity`` [eq ha-1], as in :func:`workbench.budget.derived`.
+    """
+    el = np.array([c[0] for c in COMPONENTS])
+    path = np.array([c[1] for c in COMPONENTS])
+    sp = np.array([c[2] for c in COMPONENTS])
+
+    def part(mask):
+        v = comp[..., mask]
+        return np.where(np.isfinite(v).any(-1), np.nansum(v, -1), np.nan)
+    out = {}
+    for e in ("S", "N"):
+        for p in ("wet", "dry", "total"):
+            out[f"{e}_{p}"] = part((el == e) & ((path == p) if p != "total" else True))
+    out["oxidized_N"] = part(np.isin(sp, OXIDIZED_N) & (el == "N"))
+    out["reduced_N"] = part(np.isin(sp, REDUCED_N) & (el == "N"))
+    out["potential_acidity"] = (element_deposition_in(out["S_total"], "S", "eq_ha")
+                                + element_deposition_in(out["oxidized_N"], "N", "eq_ha")
+                                + element_deposition_in(out["reduced_N"], "N", "eq_ha"))
+    return out
+
+
+# ------------------------------------------------------------------------------ quantiles
+
+@dataclass
+class BudgetQuantiles:
+    """5, 50 and 95 % quantiles of the draws of a run.
+
+    ``budget`` (None when asked for the years only) and ``years``: Datasets with a
+    ``quantile`` dimension first and the dims
+    of the budget (``deposition`` [mol m-2] per component, ``total_deposition`` per
+    total, ``oxidized_N``, ``reduced_N`` [mol m-2], ``potential_acidity`` [eq ha-1]);
+    ``span``: the same for the mean yearly rate of the years that pass completeness
+    (dims quantile, site, receptor, component / total) [mol m-2 yr-1].
+    """
+
+    budget: xr.Dataset
+    years: xr.Dataset
+    span: xr.Dataset
+    options: UncertaintyOptions
+
+
+def _span_draws(ds, comp, tot):
+    """Mean yearly rate over the years whose element total passes (as span_table)."""
+    fac = ds["annual_factor"].values                             # (Y,)
+    status = ds["total_status"].values                           # (R, Y, T) of one site
+    names = list(ds["total"].values)
+    out_c, out_t = [], []
+    el_c = np.array([c[0] for c in COMPONENTS])
+    for e in ("S", "N"):
+        st = status[..., names.index(f"{e}_total")]              # (R, Y)
+        ok = ~np.isin(st, ["flagged", "missing"])
+        out_c.append((e, ok))
+    comp_y = comp * fac[None, None, :, None]
+    with np.errstate(invalid="ignore"):
+        c_mean = np.full(comp.shape[:2] + comp.shape[3:], np.nan)
+        t_mean = {}
+        for e, ok in out_c:
+            w = np.where(ok, 1.0, np.nan)[None, :, :]                # (1, R, Y)
+            sel = el_c == e
+            v = comp_y[..., sel] * w[..., None]
+            has = ok.any(-1)[None, :, None]
+            c_mean[..., sel] = np.where(has, _nanmean(v, 2), np.nan)
+            for p in ("wet", "dry", "total"):
+                t_mean[f"{e}_{p}"] = np.where(ok.any(-1)[None], _nanmean(
+                    tot[f"{e}_{p}"] * fac[None, None, :] * w, 2), np.nan)
+    out_t = np.stack([t_mean[n] for n in TOTALS], -1)
+    return c_mean, out_t
+
+
+def _nanmean(v, axis):
+    n = np.isfinite(v).sum(axis)
+    s = np.nansum(v, axis)
+    return np.where(n > 0, s / np.maximum(n, 1), np.nan)
+
+
+def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrides=None,
+                years_only=False) -> BudgetQuantiles:
+    """Quantiles of every component and total of a run, from ``options.draws`` draws.
+
+    Parameters
+    ----------
+    result : workbench.pipeline.Result
+    study : workbench.pipeline.Study
+        The study that computed `result` (only its cached stages are read).
+    options : UncertaintyOptions
+    layers : dict, optional
+        ``{"budget": LinearLayer, "years": LinearLayer}`` already built.
+    overrides : dict, optional
+        The site overrides `result` was run with (the apps' ``Study.run(overrides=)``).
+    years_only : bool
+        The yearly budget and the span only (``budget`` of the result is None).
+
+    Returns
+    -------
+    BudgetQuantiles
+    """
+    if options.draws < 1:
+        raise ValueError("UncertaintyOptions.draws must be >= 1 for a Monte Carlo")
+    if layers is None:
+        layers = {} if years_only else {"budget": linear_layer(result, study, "budget", overrides)}
+        layers["years"] = (layers["budget"] if result.years is result.budget and not years_only
+                           else linear_layer(result, study, "years", overrides))
+    years = np.concatenate([lay.period_year for lay in layers.values()])
+    year0, n_years = int(years.min()), int(years.max() - years.min() + 1)
+    q = np.asarray(QUANTILES)
+    out = {}
+    span_c, span_t = [], []
+    for which, lay in sorted(layers.items(), key=lambda kv: kv[0] != "years"):
+        if which == "budget" and lay is layers.get("years"):
+            out[which] = out["years"]                # a yearly run: the same draws
+            continue
+        ds = lay.budget
+        n_s, n_r, n_p, n_c = ds["deposition"].shape
+        comp_q = np.full((len(q), n_s, n_r, n_p, n_c), np.nan)
+        tot_q = {name: np.full((len(q), n_s, n_r, n_p), np.nan)
+                 for name in TOTALS + ("oxidized_N", "reduced_N", "potential_acidity")}
+        for k in range(n_s):
+            noise = site_noise(lay.sites[k], options, options.draws, n_years, n_p,
+                               (options.seed, k))
+            comp = component_draws(lay, k, noise, year0)
+            tot = totals_of(comp)
+            comp_q[:, k] = np.quantile(comp, q, axis=0)
+            for name, v in tot.items():
+                tot_q[name][:, k] = np.quantile(v, q, axis=0)
+            if which == "years":
+                c, t = _span_draws(ds.isel(site=k), comp, tot)
+                span_c.append(np.quantile(c, q, axis=0))
+                span_t.append(np.quantile(t, q, axis=0))
+        dims = ("quantile", "site", "receptor", "period")
+        out[which] = xr.Dataset(
+            {"deposition": (dims + ("component",), comp_q, {"units": "mol m-2"}),
+             "total_deposition": (dims + ("total",), np.stack([tot_q[n] for n in TOTALS], -1),
+                                  {"units": "mol m-2"}),
+             "oxidized_N": (dims, tot_q["oxidized_N"], {"units": "mol m-2"}),
+             "reduced_N": (dims, tot_q["reduced_N"], {"units": "mol m-2"}),
+             "potential_acidity": (dims, tot_q["potential_acidity"], {"units": "eq ha-1"})},
+            coords={"quantile": q, "site": ds["site"].values, "receptor": ds["receptor"].values,
+                    "period": ds["period"].values, "component": ds["component"].values,
+                    "total": list(TOTALS)})
+    yds = layers["years"].budget
+    span = xr.Dataset(
+        {"deposition": (("quantile", "site", "receptor", "component"),
+                        np.stack(span_c, 1), {"units": "mol m-2 yr-1"}),
+         "total_deposition": (("quantile", "site", "receptor", "total"), np.stack(span_t, 1),
+                              {"units": "mol m-2 yr-1"})},
+        coords={"quantile": q, "site": yds["site"].values, "receptor": yds["receptor"].values,
+                "component": yds["component"].values, "total": list(TOTALS)})
+    return BudgetQuantiles(out.get("budget"), out["years"], span, options)
+
+
+# ------------------------------------------------------------------------------ outputs
+
+
+def add_quantiles(obj, q: BudgetQuantiles | None, annual_factor=None):
+    """The 5-95 % range of the draws added to a budget output (unchanged when `q` is None).
+
+    Parameters
+    ----------
+    obj : pandas.DataFrame or xarray.Dataset
+        budget.csv rows (:attr:`workbench.pipeline.Result.table`): gets
+        ``<flux column>_p05``, ``_p50``, ``_p95`` after the public first columns;
+        summary.csv rows (``result.derived.to_dataframe()``) or the derived Dataset:
+        gets ``<total>_kg_ha`` and its quantiles for every total, and the quantiles of
+        ``oxidized_N_kg_ha``, ``reduced_N_kg_ha`` and ``potential_acidity_eq_ha``;
+        the budget Dataset (budget.nc): gets ``deposition_quantiles``,
+        ``total_deposition_quantiles`` [mol m-2] with a ``quantile`` dimension.
+    q : BudgetQuantiles or None
+    annual_factor : ndarray, optional
+        Of the budget's periods, for budget.csv (default: 1).
+    """
+    import pandas as pd
+    if q is None:
+        return obj
+    if isinstance(obj, pd.DataFrame) and "flux_kg_ha" in obj:
+        fac = np.ones(q.budget.sizes["period"]) if annual_factor is None else annual_factor
+        qt = quantile_table(q, fac)
+        keys = ["site", "receptor", "period", "element", "pathway", "species"]
+        out = obj.assign(period=obj["period"].astype(str)).merge(qt, on=keys, how="left")
+        out.index = obj.index
+        return out
+    if isinstance(obj, pd.DataFrame):
+        extra = summary_dataset(q).to_dataframe().reset_index()
+        extra["period"] = extra["period"].astype(str)
+        return obj.assign(period=obj["period"].astype(str)).merge(
+            extra, on=["site", "receptor", "period"], how="left")
+    if "deposition" in obj and "component" in obj.dims:
+        b = q.budget
+        return obj.assign(deposition_quantiles=b["deposition"].assign_attrs(
+                              long_name="quantiles of the Monte Carlo draws of the deposition"),
+                          total_deposition_quantiles=b["total_deposition"].assign_attrs(
+                              long_name="quantiles of the Monte Carlo draws of the totals"))
+    return obj.assign(summary_dataset(q).data_vars)
+
+
+def with_uncertainty(result, study, scenario):
+    """`result` with the quantiles in its table, derived sums and budget (for the writers).
+
+    Returns `result` itself when the scenario asks for no draws (``[uncertainty] draws =
+    0``, the default); otherwise a copy whose ``table`` (budget.csv), ``derived``
+    (summary.csv) and ``budget`` (budget.nc) carry the quantiles of
+    :func:`monte_carlo`, and whose ``options["uncertainty"]`` holds them.
+    """
+    import dataclasses
+    opt = (scenario.options.get("uncertainty") if scenario is not None else None)
+    if opt is None or opt.draws == 0:
+        return result
+    q = monte_carlo(result, study, opt)
+    new = dataclasses.replace(result, budget=add_quantiles(result.budget, q),
+                              options={**result.options, "uncertainty": q})
+    new.__dict__["table"] = add_quantiles(result.table, q, result.budget["annual_factor"].values)
+    new.__dict__["derived"] = add_quantiles(result.derived, q)
+    new.budget.attrs["uncertainty"] = json.dumps(opt.to_dict(), sort_keys=True)
+    return new
+

@@ -1,0 +1,146 @@
+"""The Sobol explorer: global sensitivity of a site's totals, beside a tornado.
+
+Sobol indices (:func:`workbench.analysis.sensitivity.sobol`) and the one-at-a-time
+tornado of the chosen site, receptor and years, with the factors and ranges of the
+scenario's ``[sensitivity]`` section; a tqdm bar counts the engine runs (written into
+a label of the app, so that it also moves when the analysis runs from a button).
+"""
+from __future__ import annotations
+
+import dataclasses
+
+import ipywidgets as widgets
+import pandas as pd
+
+from .controls import Progress, caution_box, figure_widget, open_with_progress, refresh
+from .figures_sensitivity import sensitivity_figure
+from .session import Session
+
+#: Base samples N offered (powers of 2; N (k + 2) evaluations for k factors).
+SAMPLES = (16, 32, 64, 128, 256)
+#: The outputs offered: label -> (element, quantity).
+OUTPUT_CHOICES = {"N total": ("N", "total"), "N dry": ("N", "dry"), "N wet": ("N", "wet"),
+                  "S total": ("S", "total"), "S dry": ("S", "dry"), "S wet": ("S", "wet"),
+                  "potential acidity": ("S+N", "potential_acidity")}
+
+
+class SobolExplorer(widgets.VBox):
+    """Sobol bars and a tornado for one site, receptor and span of years.
+
+    Attributes
+    ----------
+    sobol, tornado : pandas.DataFrame
+        The last analysis (:func:`~workbench.analysis.sensitivity.sobol`,
+        :func:`~workbench.analysis.sensitivity.tornado`), one row per year.
+    fig : plotly.graph_objects.FigureWidget
+    """
+
+    @classmethod
+    def from_scenario(cls, scenario_path, **kw) -> "SobolExplorer":
+        return open_with_progress(cls, scenario_path, **kw)
+
+    def __init__(self, session: Session, site=None, receptor=None, years=None, output="N total",
+                 samples=None, progress=None, run=True):
+        self.session = session
+        self.settings = session.baseline
+        first, last = session.years
+        site = site or session.sites[0]
+        years = tuple(years) if years else (last, last)
+        opt = session.scenario.options["sensitivity"]
+        self.progress = progress or Progress()
+        self.site_w = widgets.Dropdown(options=session.sites, value=site, description="site")
+        recs = session.receptors(site)
+        self.receptor_w = widgets.Dropdown(options=recs, value=receptor or recs[0],
+                                           description="receptor")
+        self.years_w = widgets.IntRangeSlider(value=years, min=first, max=last,
+                                              description="years", continuous_update=False)
+        self.year_w = widgets.Dropdown(description="shown", options=[])
+        self.output_w = widgets.Dropdown(options=list(OUTPUT_CHOICES), value=output,
+                                         description="total")
+        self.samples_w = widgets.Dropdown(options=SAMPLES, value=samples or (
+            opt.samples if opt.samples in SAMPLES else 64), description="N")
+        self.run_w = widgets.Button(description="Run analysis", icon="play",
+                                    button_style="primary")
+        self.bar_w = widgets.Label("")
+        self.note_w = widgets.HTML(
+            "<p>Factors and ranges: the scenario's <code>[sensitivity]</code> section "
+            f"({', '.join(opt.factors)}).</p>")
+        self.sobol = pd.DataFrame()
+        self.tornado = pd.DataFrame()
+        self.fig = figure_widget(self._figure())
+        self.site_w.observe(self._on_site, "value")
+        self.run_w.on_click(lambda _: self.run())
+        for w in (self.output_w, self.year_w):
+            w.observe(lambda c: self._draw(), "value")
+        head = widgets.HBox([self.site_w, self.receptor_w, self.years_w])
+        super().__init__([widgets.HTML("<h3>Sobol indices and tornado</h3>"), caution_box(),
+                          head, widgets.HBox([self.output_w, self.year_w, self.samples_w]),
+                          widgets.HBox([self.run_w, self.progress]), self.note_w, self.bar_w,
+                          self.fig])
+        if run:
+            self.run()
+
+    def _on_site(self, change):
+        self.receptor_w.options = self.session.receptors(self.site_w.value)
+        self.receptor_w.value = self.receptor_w.options[0]
+
+    def _figure(self):
+        el, quantity = OUTPUT_CHOICES[self.output_w.value]
+        cols = ["site", "receptor", "period", "element", "quantity", "factor"]
+        sob = self.sobol if len(self.sobol) else pd.DataFrame(
+            columns=cols + ["S1", "S1_conf", "ST", "ST_conf"])
+        tor = self.tornado if len(self.tornado) else pd.DataFrame(
+            columns=cols + ["low", "high", "base", "output_low", "output_high", "output_base"])
+        return sensitivity_figure(sob, tor, self.site_w.value, self.receptor_w.value,
+                                  self.year_w.value, el, quantity)
+
+    def _draw(self):
+        refresh(self.fig, self._figure())
+
+    def run(self):
+        """Compute the indices and the tornado of the chosen site, receptor and years."""
+        from tqdm import tqdm
+
+        from ..analysis import sensitivity as S
+        site, rec = self.site_w.value, self.receptor_w.value
+        y0, y1 = self.years_w.value
+        study = self.session.study_for(site, y0, y1)
+        start, end = self.session.bounds(y0, y1)
+        st = self.settings
+        opt = dataclasses.replace(self.session.scenario.options["sensitivity"],
+                                  samples=int(self.samples_w.value), sites=(site,),
+                                  receptors=(rec,))
+        base = {"wet": st.wet, "dry": st.dry, "budget": st.budget,
+                "fixed_velocity": dict(st.fixed_velocity)}
+        kw = {"resolution": "year", "start": start, "end": end, "receptors": [rec],
+              "overrides": st.overrides}
+        self.bar_w.value = ""
+
+        def counted(items):          # tqdm's text bar, written into a label of the app
+            return tqdm(list(items), desc="engine runs", file=_LabelFile(self.bar_w),
+                        ascii=True, mininterval=0.2)
+        self.progress.start("Sobol analysis")
+        self.sobol = S.sobol(study, base, opt, kw, counted)
+        self.progress.step("tornado", 0.8)
+        self.tornado = S.tornado(study, base, opt, kw, counted)
+        years = sorted(set(self.sobol["period"].astype(str))) or [str(y1)]
+        self.year_w.options = years
+        self.year_w.value = years[-1]
+        self._draw()
+        self.progress.done("analysis done")
+        return self.sobol
+
+
+class _LabelFile:
+    """A text stream for tqdm that shows its last line in a Label widget."""
+
+    def __init__(self, label: widgets.Label):
+        self.label = label
+
+    def write(self, text: str):
+        text = text.strip("\r\n ")
+        if text:
+            self.label.value = text
+
+    def flush(self):
+        pass

@@ -1,0 +1,78 @@
+"""Figures of the global sensitivity analysis: Sobol bars beside a tornado.
+
+Pure functions: tables of :mod:`workbench.analysis.sensitivity` in, a plotly spec (and
+a Figure built from it) out.
+"""
+from __future__ import annotations
+
+import json
+
+import pandas as pd
+
+from .figures import from_spec, subplot_layout
+from .palette import OKABE_ITO, TEMPLATE
+
+#: Output units of the tornado, by element.
+_UNITS = {"S": "kg S/ha per period", "N": "kg N/ha per period", "S+N": "eq/ha per period"}
+
+
+def _pick(frame, site, receptor, period, element, quantity):
+    return frame[(frame["site"] == site) & (frame["receptor"] == receptor)
+                 & (frame["period"].astype(str) == str(period)) & (frame["element"] == element)
+                 & (frame["quantity"] == quantity)]
+
+
+def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor, period,
+                     element="N", quantity="total") -> dict:
+    """Plotly spec: first-order and total Sobol indices (with their 95 % bootstrap
+    intervals) by factor, and the one-at-a-time low/high outputs around the base.
+
+    Parameters
+    ----------
+    sobol : pandas.DataFrame
+        Output of :func:`workbench.analysis.sensitivity.sobol`.
+    tornado : pandas.DataFrame
+        Output of :func:`workbench.analysis.sensitivity.tornado`.
+    site, receptor, period, element, quantity : str
+        The output shown (``element`` S, N or S+N; ``quantity`` wet, dry, total or
+        potential_acidity).
+    """
+    layout_json, axes = subplot_layout(1, 2, horizontal_spacing=0.18,
+                                       subplot_titles=("Sobol indices [1]", "One at a time"))
+    layout = json.loads(layout_json)
+    s = _pick(sobol, site, receptor, period, element, quantity).sort_values("ST")
+    t = _pick(tornado, site, receptor, period, element, quantity)
+    traces = []
+    (x1, y1), (x2, y2) = axes
+    for col, name, colour in (("S1", "first order", OKABE_ITO["blue"]),
+                              ("ST", "total", OKABE_ITO["orange"])):
+        traces.append({"type": "bar", "orientation": "h", "name": name,
+                       "x": s[col].tolist(), "y": s["factor"].tolist(),
+                       "error_x": {"type": "data", "array": s[f"{col}_conf"].tolist()},
+                       "marker": {"color": colour}, "xaxis": x1.replace("axis", ""),
+                       "yaxis": y1.replace("axis", "")})
+    if len(t):
+        base = float(t["output_base"].iloc[0])
+        t = t.assign(_span=(t["output_high"] - t["output_low"]).abs()).sort_values("_span")
+        for col, end, colour in (("output_low", "low", OKABE_ITO["sky_blue"]),
+                                 ("output_high", "high", OKABE_ITO["vermillion"])):
+            traces.append({"type": "bar", "orientation": "h", "name": f"factor {end}",
+                           "base": base, "x": (t[col] - base).tolist(),
+                           "y": t["factor"].tolist(), "customdata": t[end].tolist(),
+                           "hovertemplate": f"%{{y}} {end} = %{{customdata}}: "
+                                            f"%{{x:+.3g}}<extra></extra>",
+                           "marker": {"color": colour}, "xaxis": x2.replace("axis", ""),
+                           "yaxis": y2.replace("axis", "")})
+        layout[x2]["title"] = {"text": f"{_UNITS.get(element, '')} (base {base:.3g})"}
+    layout.update({"barmode": "overlay", "height": 120 + 28 * max(len(s), len(t), 4),
+                   "title": {"text": f"Sensitivity of {element} {quantity} · {site} · "
+                                     f"{receptor} · {period}"}})
+    layout[x1]["range"] = [0, 1.05]
+    return {"data": traces, "layout": layout}
+
+
+def sensitivity_figure(sobol, tornado, site, receptor, period, element="N", quantity="total",
+                       template=TEMPLATE):
+    """The Figure of :func:`sensitivity_spec`."""
+    return from_spec(sensitivity_spec(sobol, tornado, site, receptor, period, element,
+                                      quantity), template)

@@ -1,0 +1,67 @@
+"""The 5-95 % range of the Monte Carlo (``[uncertainty]``) on the budget bars.
+
+:func:`with_range` adds the range of every total to a spec of
+:func:`workbench.ui.figures.budget_bars_spec` as asymmetric error bars on the total
+markers; the site explorer calls it on every redraw, so the range follows each change
+of an assumption.  Nothing changes while ``[uncertainty] draws`` is 0 (the default).
+"""
+from __future__ import annotations
+
+import copy
+
+import numpy as np
+
+from .palette import OKABE_ITO
+from .summaries import total_rates
+
+
+def total_ranges(result, study, site, receptor, unit, options, overrides=None) -> dict:
+    """(element, period) -> (p05, p95) of each element total's yearly rate [unit].
+
+    Parameters
+    ----------
+    result : workbench.pipeline.Result
+        A run of `study` (its ``years`` are used).
+    study : workbench.pipeline.Study
+    site, receptor : str
+    unit : str
+        A unit of :func:`workbench.ui.summaries.total_rates`.
+    options : UncertaintyOptions
+    overrides : dict, optional
+        The site overrides the run was made with.
+    """
+    from ..analysis.uncertainty import monte_carlo
+    q = monte_carlo(result, study, options, overrides=overrides, years_only=True).years
+    ds = result.years
+    out = {}
+    ends = []
+    for level in (0.05, 0.95):
+        v = q["total_deposition"].sel(quantile=level).transpose(*ds["total_deposition"].dims)
+        t = total_rates(ds.assign(total_deposition=v), site, receptor, None, unit)
+        ends.append(t[t["pathway"] == "total"])
+    for (_, lo), (_, hi) in zip(ends[0].iterrows(), ends[1].iterrows()):
+        out[(lo["element"], lo["period"])] = (float(lo["value"]), float(hi["value"]))
+    return out
+
+
+def with_range(spec: dict, study, result, site, receptor, unit, options, overrides=None) -> dict:
+    """`spec` with the 5-95 % range of every total as error bars (a copy; `spec` itself
+    when `options` is None or asks for no draws)."""
+    if options is None or options.draws == 0:
+        return spec
+    ranges = total_ranges(result, study, site, receptor, unit, options, overrides)
+    spec = copy.deepcopy(spec)
+    for trace in spec["data"]:
+        if trace.get("name") != "total":
+            continue
+        els, pers = trace["x"]
+        lo, hi = [], []
+        for el, p, y in zip(els, pers, trace["y"]):
+            a, b = ranges.get((el, p), (np.nan, np.nan))
+            ok = y is not None and np.isfinite(a) and np.isfinite(b)
+            lo.append(float(y - a) if ok else None)
+            hi.append(float(b - y) if ok else None)
+        trace["error_y"] = {"type": "data", "symmetric": False, "array": hi, "arrayminus": lo,
+                            "color": OKABE_ITO["black"], "thickness": 1.5, "width": 6}
+        trace["name"] = "total (5-95 % range)"
+    return spec
