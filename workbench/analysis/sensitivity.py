@@ -401,13 +401,25 @@ def write_sensitivity(scenario, out, overwrite=False, quiet=False) -> dict:
     import sys
     from pathlib import Path
 
+    from ..runfolder import RunFolder
+    from ..scenario import load_scenario
+    sc = load_scenario(scenario) if not hasattr(scenario, "options") else scenario
+    say = (lambda text: None) if quiet else (lambda text: print(text, file=sys.stderr))
+    with RunFolder(Path(out), {"scenario": sc.path, **sc.input_paths()}, overwrite,
+                   say=say) as folder:      # whole or not at all, as a run folder
+        names = _write_sensitivity(sc, folder.path, quiet)
+        final = folder.commit()
+    return {name: final / name for name in names}
+
+
+def _write_sensitivity(sc, out, quiet):
+    """Compute and write the files of :func:`write_sensitivity` into the folder `out`."""
+    import sys
+
     from tqdm.auto import tqdm
 
     from ..pipeline import Study
-    from ..scenario import load_scenario
-    from ..writers import atomic_write, prepare_out_dir
-    sc = load_scenario(scenario) if not hasattr(scenario, "options") else scenario
-    out = prepare_out_dir(Path(out), {"scenario": sc.path, **sc.input_paths()}, overwrite)
+    from ..writers import atomic_write
     opt = sc.options["sensitivity"]
     study = Study.from_scenario(sc)
     if opt.sites:              # the engine computes the sites analysed only
@@ -430,7 +442,7 @@ def write_sensitivity(scenario, out, overwrite=False, quiet=False) -> dict:
     html = sensitivity_html(frame, torn)
     written["sensitivity.html"] = atomic_write(out / "sensitivity.html",
                                                lambda t: t.write_text(html, encoding="utf-8"))
-    return written
+    return list(written)
 
 
 def sensitivity_html(frame: pd.DataFrame, torn: pd.DataFrame) -> str:
