@@ -124,8 +124,16 @@ class Study:
         return cls(load_scenario_inputs(scenario, progress=progress), scenario.data.get("sites", {}))
 
     def catalogue(self, overrides=None) -> SiteCatalogue:
-        """The catalogue with the site overrides applied."""
+        """The catalogue with the site overrides applied.
+
+        `overrides` given here (the apps' what-if values) go through the same checks as
+        the scenario's ``[sites.<id>]`` tables (:func:`workbench.io.sites.check_site`):
+        an impossible value raises a located :class:`~workbench.errors.InputError`
+        naming the override; an unknown site id is refused.
+        """
         over = {**self.site_overrides, **(overrides or {})}
+        if overrides:
+            self._check_overrides(overrides)
         sites = []
         for s in self.inputs.catalogue:
             o = dict(over.get(s.id, {}))
@@ -136,6 +144,32 @@ class Study:
             o.pop("lai_min", None), o.pop("lai_max", None)
             sites.append(dataclasses.replace(s, **o) if o else s)
         return SiteCatalogue(sites, self.inputs.catalogue.path)
+
+    def _check_overrides(self, overrides):
+        """Site overrides given in code, checked as the scenario's are (cached by value)."""
+        from .errors import InputError, suggest
+        from .io.sites import check_site, site_dict
+        memo = self._memo.setdefault("checked overrides", {})
+        key = _key(overrides)
+        if key in memo:
+            return
+        ids = list(self.inputs.catalogue.ids)
+        for sid, table in overrides.items():
+            if sid not in ids:
+                raise InputError("unknown site id in a what-if override", column=f"sites.{sid}",
+                                 value=sid, expected="one of " + ", ".join(ids) + suggest(sid, ids))
+            table = dict(table)
+            base = site_dict(self.inputs.catalogue[sid])
+            base.update(self.site_overrides.get(sid, {}))
+            if "lai_min" in table or "lai_max" in table:
+                base.pop("lai", None)
+
+            def err(problem, key, value=None, expected=None, sid=sid):
+                return InputError(f"what-if override: {problem}", column=f"sites.{sid}.{key}",
+                                  value=value, expected=expected)
+            check_site({**base, **table}, err, [], f"what-if [sites.{sid}]")
+        memo[key] = True
+        trim(memo, OPTION_MEMOS)
 
     def span(self):
         """(start, end) of the chemistry: the earliest sample or air-period start and

@@ -47,7 +47,7 @@ CSV_CASES = {
         read_precipitation, "p.csv", _text(PRECIP, ("2020-01-07T09:00,2020-01-14T09:00,w1",
                                                     "43837.375,2020-01-14T09:00,w1")),
         ["p.csv, line 2, column 'start': not an ISO 8601 timestamp (an Excel date serial",
-         "got '43837.375'", "expected a timestamp such as 2020-01-07T09:00"]),
+         "got '43837.375'", "expected a timestamp such as 2020-01-09T14:00"]),
     "excel_date_serial_air_end": (
         read_air, "a.csv", _text(AIR, ("2020-01-14T09:00,fp2", "43844.375,fp2")),
         ["a.csv, line 5, column 'end': not an ISO 8601 timestamp (an Excel date serial",

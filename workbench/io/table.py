@@ -257,7 +257,7 @@ class RawTable:
         if (s == "").any():
             i = int(np.flatnonzero((s == "").to_numpy())[0])
             raise self.error("missing timestamp", row=i, column=name, value="",
-                             expected="an ISO 8601 timestamp such as 2020-01-07T09:00")
+                             expected="an ISO 8601 timestamp such as 2020-01-09T14:00")
         aware = s.str.contains(_OFFSET).to_numpy()
         out = np.empty(len(s), dtype="datetime64[ns]")
         if aware.any():
@@ -286,8 +286,8 @@ class RawTable:
             if re.fullmatch(r"\d{5}(\.\d*)?", str(s.loc[idx])):
                 hint = " (an Excel date serial number? format the column as a date first)"
             raise self.error("not an ISO 8601 timestamp" + hint, row=int(idx), column=name,
-                             value=s.loc[idx], expected="a timestamp such as 2020-01-07T09:00 "
-                             "or 2020-01-07T09:00+01:00")
+                             value=s.loc[idx], expected="a timestamp such as 2020-01-09T14:00 "
+                             "or 2020-01-09T14:00+01:00")
 
     def unknown_columns(self, known) -> list[str]:
         return [self.raw_headers[n] for n in self.headers if n not in known]
