@@ -216,6 +216,8 @@ def write_run(result, study, scenario, out, overwrite=False, progress=None) -> d
     html = render_report(result, study, scenario)
     written["report.html"] = atomic_write(out / "report.html",
                                           lambda t: t.write_text(html, encoding="utf-8"))
+    from .analysis.outputs import write_analysis
+    written.update(write_analysis(result, study, scenario, out, atomic_write))
     say("provenance.json")
     prov = provenance(scenario, paths, started)
     prov["outputs"] = sorted(written) + ["provenance.json"]

@@ -66,6 +66,13 @@ class Site:
     collector: str = "wet_only"
     receptors: tuple = ()
     critical_loads: dict = field(default_factory=dict)
+    #: receptor -> {critical-load key: value} from ``[site.critical_loads.<receptor>]``
+    receptor_critical_loads: dict = field(default_factory=dict)
+
+    def critical_loads_for(self, receptor) -> dict:
+        """Critical loads of a receptor [eq ha-1 yr-1]: the site's, with the receptor's
+        own table (if any) taking precedence key by key."""
+        return {**self.critical_loads, **self.receptor_critical_loads.get(receptor, {})}
 
     @property
     def surfaces(self) -> tuple:
@@ -192,6 +199,24 @@ def _key_line(text_lines, block_starts, k, key):
     return start + 1
 
 
+def _table_key_line(text_lines, block_starts, k, receptor, key):
+    """Line (1-based) of `key` in the ``[site.critical_loads.<receptor>]`` table of the
+    k-th [[site]] block (the table's header line when the key is not found)."""
+    start = block_starts[k] if k < len(block_starts) else 0
+    end = block_starts[k + 1] if k + 1 < len(block_starts) else len(text_lines)
+    head = re.compile(rf"^\s*\[\s*site\.critical_loads\.{re.escape(receptor)}\s*\]")
+    pat = re.compile(rf"^\s*{re.escape(key)}\s*=")
+    for i in range(start, end):
+        if head.match(text_lines[i]):
+            for j in range(i + 1, end):
+                if text_lines[j].lstrip().startswith("["):
+                    break
+                if pat.match(text_lines[j]):
+                    return j + 1
+            return i + 1
+    return _key_line(text_lines, block_starts, k, key)
+
+
 def read_sites(path) -> SiteCatalogue:
     """Read and validate a site catalogue.
 
@@ -285,12 +310,40 @@ def read_sites(path) -> SiteCatalogue:
                 raise err("lai_min above lai_max", "lai_min", t["lai_min"], "0 <= lai_min <= lai_max")
             lai = _monthly_lai(float(t["lai_min"]), float(t["lai_max"]), t["latitude"])
         cl = dict(t.get("critical_loads", {}))
+        per_receptor = {r: cl.pop(r) for r in list(cl) if isinstance(cl[r], dict)}
+        surfaces = [t["land_use"]] + list(receptors)
+        for r, table in per_receptor.items():
+            def rerr(problem, key, value=None, expected=None, r=r):
+                return InputError(problem, file=path, value=value, expected=expected,
+                                  line=_table_key_line(lines, starts, k, r, key), column=key)
+            if r not in surfaces:
+                raise rerr("critical loads for a receptor the site does not have",
+                          "critical_loads", r, "one of the site's surfaces: " + ", ".join(surfaces)
+                          + suggest(r, surfaces))
+            for key, v in table.items():
+                if key not in CRITICAL_LOAD_KEYS:
+                    raise rerr(f"unknown critical-load key in [site.critical_loads.{r}]", key,
+                              expected="one of " + ", ".join(CRITICAL_LOAD_KEYS)
+                              + suggest(key, CRITICAL_LOAD_KEYS))
+                if isinstance(v, bool) or not isinstance(v, (int, float)) or v < 0:
+                    raise rerr(f"bad critical load in [site.critical_loads.{r}]", key, v,
+                              "a number >= 0 in eq/ha/yr")
         for key, v in cl.items():
             if key not in CRITICAL_LOAD_KEYS:
                 raise err("unknown critical-load key", key, expected="one of "
                           + ", ".join(CRITICAL_LOAD_KEYS) + suggest(key, CRITICAL_LOAD_KEYS))
             if isinstance(v, bool) or not isinstance(v, (int, float)) or v < 0:
                 raise err("bad critical load", key, v, "a number >= 0 in eq/ha/yr")
+        for r in [None] + list(per_receptor):
+            merged = {**cl, **(per_receptor[r] if r else {})}
+            if merged.get("cl_max_n", np.inf) < merged.get("cl_min_n", -np.inf):
+                where = f"[site.critical_loads.{r}]" if r else "[site.critical_loads]"
+                line = (_table_key_line(lines, starts, k, r, "cl_max_n") if r else
+                        _key_line(lines, starts, k, "cl_max_n"))
+                raise InputError(f"impossible critical load function in {where}: cl_max_n below "
+                                 "cl_min_n", file=path, line=line, column="cl_max_n",
+                                 value=merged["cl_max_n"],
+                                 expected=f"cl_max_n >= cl_min_n = {merged['cl_min_n']:g} eq/ha/yr")
         for key in ("roughness_length_m", "displacement_height_m", "terrain_slope_deg"):
             if key in t and t[key] < 0:
                 raise err("negative value", key, t[key], "a value >= 0")
@@ -305,5 +358,7 @@ def read_sites(path) -> SiteCatalogue:
             roughness_length_m=t.get("roughness_length_m"),
             displacement_height_m=t.get("displacement_height_m"),
             met_land_use=t.get("met_land_use"), collector=collector,
-            receptors=tuple(receptors), critical_loads={k2: float(v) for k2, v in cl.items()}))
+            receptors=tuple(receptors), critical_loads={k2: float(v) for k2, v in cl.items()},
+            receptor_critical_loads={r: {k2: float(v) for k2, v in tb.items()}
+                                     for r, tb in per_receptor.items()}))
     return SiteCatalogue(sites, path)

@@ -1,0 +1,7 @@
+"""Analyses of finished budgets: critical-load exceedance and what-if reductions
+(``exceedance``, ``whatif``), trends over the years (``trends``), the tables handed
+over with a run (``handover``) and the files they add to a run folder (``outputs``).
+
+The modules are imported by name (``from workbench.analysis import exceedance``);
+this file imports nothing, so that each module loads only what it needs.
+"""
