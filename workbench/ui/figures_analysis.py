@@ -92,3 +92,69 @@ def clf_figure(loads, s_dep=None, n_dep=None, path=None, title="", mode_text="",
                template=TEMPLATE):
     """:func:`clf_spec` as a plotly Figure."""
     return from_spec(clf_spec(loads, s_dep, n_dep, path, title, mode_text), template)
+
+
+def trend_spec(years, values, row=None, status=None, title="", unit="kg/ha/yr") -> dict:
+    """Annual values over the years with the Sen slope and its confidence band.
+
+    Parameters
+    ----------
+    years : array_like
+        Calendar years [yr].
+    values : array_like
+        Annual values [`unit`]; NaN missing.
+    row : mapping, optional
+        A row of ``trends.csv`` (``sen_slope_per_yr``, ``slope_low_per_yr``,
+        ``slope_high_per_yr``, ``intercept``, ``p_value``, ``valid``, ``note``).
+    status : array_like of str, optional
+        Status of each year; years that are not ``complete`` get an open marker.
+
+    Returns
+    -------
+    dict
+        Plain plotly JSON.  The band is drawn between lines of the lower and upper
+        slope through the point (median year, median value) of the values used
+        (common practice for a Sen slope's band).
+    """
+    t = np.asarray(years, float)
+    x = np.asarray(values, float)
+    st = np.asarray(status if status is not None else ["complete"] * t.size, dtype=object)
+    full = st == "complete"
+    data = [{"type": "scatter", "x": list(t[full]), "y": list(x[full]), "mode": "markers",
+             "marker": {"color": OKABE_ITO["blue"], "size": 9}, "name": "complete years"}]
+    if (~full).any():
+        data.append({"type": "scatter", "x": list(t[~full]), "y": list(x[~full]),
+                     "mode": "markers", "name": "other years (status in hover)",
+                     "marker": {"color": OKABE_ITO["blue"], "size": 9, "symbol": "circle-open"},
+                     "customdata": list(st[~full]),
+                     "hovertemplate": "%{x}: %{y:.3g} (%{customdata})<extra></extra>"})
+    if row is not None and np.isfinite(_num(row.get("sen_slope_per_yr"))):
+        slope, icpt = float(row["sen_slope_per_yr"]), float(row["intercept"])
+        ends = np.array([np.nanmin(t), np.nanmax(t)])
+        ok = np.isfinite(x)
+        tm = float(np.median(t[ok])) if ok.any() else float(np.mean(ends))
+        xm = icpt + slope * tm
+        lo, hi = (_num(row.get(k)) for k in ("slope_low_per_yr", "slope_high_per_yr"))
+        if np.isfinite([lo, hi]).all():
+            a, b = xm + lo * (ends - tm), xm + hi * (ends - tm)
+            data.append({"type": "scatter", "x": list(ends) + list(ends[::-1]),
+                         "y": list(np.minimum(a, b)) + list(np.maximum(a, b)[::-1]),
+                         "fill": "toself", "fillcolor": ENVELOPE_FILL, "mode": "lines",
+                         "line": {"width": 0}, "name": "confidence band of the slope",
+                         "hoverinfo": "skip"})
+        p = _num(row.get("p_value"))
+        valid = "" if row.get("valid", True) else " — not valid: " + str(row.get("note", ""))
+        data.append({"type": "scatter", "x": list(ends), "y": list(icpt + slope * ends),
+                     "mode": "lines", "line": {"color": OKABE_ITO["vermillion"], "width": 2},
+                     "name": f"Sen slope {slope:.3g} {unit} per yr (p = {p:.2g}){valid}"})
+    layout = {"title": {"text": title or "Trend over the years"},
+              "xaxis": {"title": {"text": "year"}, "dtick": 1},
+              "yaxis": {"title": {"text": unit}}, "height": HEIGHT,
+              "legend": {"orientation": "h", "y": -0.2}}
+    return {"data": data, "layout": layout}
+
+
+def trend_figure(years, values, row=None, status=None, title="", unit="kg/ha/yr",
+                 template=TEMPLATE):
+    """:func:`trend_spec` as a plotly Figure."""
+    return from_spec(trend_spec(years, values, row, status, title, unit), template)
