@@ -8,6 +8,8 @@ from pathlib import Path
 from . import __version__
 from .errors import WorkbenchError
 
+#: Reporting resolutions of ``workbench run --resolution`` (as ``[period] resolution``).
+RESOLUTIONS = ("year", "hydro_year", "season", "month")
 DEMO_SCENARIO = Path(__file__).resolve().parent.parent / "demo_data" / "scenario.toml"
 
 
@@ -26,7 +28,7 @@ def cmd_check(args) -> int:
     return 0
 
 
-def run_scenario(scenario_path, out, overwrite=False, quiet=False):
+def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=None):
     """Load a scenario, compute its budget and write the run folder.
 
     Returns
@@ -49,7 +51,7 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False):
     study = Study.from_scenario(sc, progress=step)
     p = sc.data["period"]
     result = study.run(sc.options["wet"], sc.options["dry"], sc.options["budget"],
-                       sc.fixed_velocity, p["resolution"], p["start"], p["end"])
+                       sc.fixed_velocity, resolution or p["resolution"], p["start"], p["end"])
     step("writing")
     written = write_run(result, study, sc, out, overwrite=True,
                         progress=lambda text: bar.set_postfix_str(text))
@@ -59,7 +61,8 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False):
 
 
 def cmd_run(args) -> int:
-    written, _, _ = run_scenario(args.scenario, args.out, args.overwrite, args.quiet)
+    written, _, _ = run_scenario(args.scenario, args.out, args.overwrite, args.quiet,
+                                 args.resolution)
     print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
     for name in written:
         print(f"  {name}")
@@ -108,6 +111,8 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--out", type=Path, required=True, help="output folder (created if needed)")
     r.add_argument("--overwrite", action="store_true", help="replace files in a non-empty folder")
     r.add_argument("--quiet", action="store_true", help="no progress bar")
+    r.add_argument("--resolution", choices=RESOLUTIONS, default=None,
+                   help="reporting periods of budget.csv (default: the scenario's [period])")
     r.set_defaults(func=cmd_run)
     d = sub.add_parser("demo", help="run the bundled demo scenario into a fresh folder")
     d.add_argument("--out", type=Path, default=None, help="output folder (default: a new "

@@ -20,9 +20,30 @@ CAUTION = (
     "accredited laboratory and network practice.")
 
 
-def _table_html(frame: pd.DataFrame, float_format="{:.3g}") -> str:
+#: Significant digits of the report's numbers.
+DIGITS = 3
+
+
+def plain(v, digits=DIGITS) -> str:
+    """A number in plain notation with about `digits` significant digits: no exponent,
+    thousands separated by commas (1,713; 24.6; 0.0123).
+
+    >>> plain(1713.4), plain(24.56), plain(0.012345), plain(0.0), plain(float("nan"))
+    ('1,713', '24.6', '0.0123', '0', '–')
+    """
+    if v is None or not np.isfinite(v):
+        return "–"
+    if v == 0:
+        return "0"
+    decimals = max(0, digits - 1 - int(np.floor(np.log10(abs(v)))))
+    text = f"{v:,.{decimals}f}"
+    return text
+
+
+def _table_html(frame: pd.DataFrame, float_format=None) -> str:
+    fmt = plain if float_format is None else (lambda v: float_format.format(v))
     return frame.to_html(index=False, border=0, classes="tab", na_rep="–",
-                         float_format=lambda v: float_format.format(v))
+                         float_format=fmt)
 
 
 _MARK = {"complete": "", "flagged": " f", "partial": " p", "filled": " ~", "missing": ""}
@@ -33,11 +54,32 @@ def _pivot_html(per: pd.DataFrame) -> str:
     if per.empty:
         return "<p>No periods.</p>"
     cell = per.apply(lambda r: "–" if not np.isfinite(r["flux_kg_ha_yr"]) else
-                     f"{r['flux_kg_ha_yr']:.3g}{_MARK.get(r['status'], '?')}", axis=1)
+                     f"{plain(r['flux_kg_ha_yr'])}{_MARK.get(r['status'], '?')}", axis=1)
     wide = per.assign(cell=cell).pivot_table(index=["site", "receptor", "element"],
                                              columns="period", values="cell", aggfunc="first")
     wide.columns.name = None
     return wide.reset_index().to_html(index=False, border=0, classes="tab", na_rep="–")
+
+
+def _exceedance_html(result, study) -> list:
+    """The span's critical-load exceedances (exceedance.csv has every year)."""
+    from .analysis.exceedance import REGIONS, exceedance_table
+    ex = exceedance_table(result, study.catalogue())
+    out = ["<h2>Critical-load exceedance: mean of the years that pass completeness "
+           "[eq/ha/yr]</h2>"]
+    span = ex[ex["period"] == "span"]
+    if span.empty:
+        return out + ["<p>No critical loads in sites.toml, or no year passes completeness.</p>"]
+    out.append("<p>Acidity: the sum of the S and N reductions to the nearest point of the "
+               "critical load function (ICP Modelling and Mapping Manual); nutrient N: "
+               "deposition above CLnutN. Regions: "
+               + "; ".join(f"{k} {html.escape(v)}" for k, v in REGIONS.items() if k >= 0)
+               + ". Every year, the loads used and the notes are in exceedance.csv; critical "
+               "loads carry their own uncertainty.</p>")
+    cols = ["site", "receptor", "s_dep_eq_ha_yr", "n_dep_eq_ha_yr", "ex_acidity_eq_ha_yr",
+            "region", "ex_nutrient_n_eq_ha_yr", "status", "note"]
+    out.append(_table_html(span[cols]))
+    return out
 
 
 def render_report(result, study, scenario=None) -> str:
@@ -54,6 +96,7 @@ def render_report(result, study, scenario=None) -> str:
                                        "flux_eq_ha_yr", "status", "years_used", "years_excluded"]]))
     else:
         parts.append("<p>No year passes completeness.</p>")
+    parts.extend(_exceedance_html(result, study))
     parts.append("<h2>Totals per period [kg/ha/yr of S or N]</h2>")
     parts.append("<p>Marks: <b>f</b> flagged (fails completeness), <b>p</b> partial (a "
                  "component has no data), <b>~</b> filled, <b>–</b> missing. Exact values, "
@@ -117,7 +160,9 @@ def render_report(result, study, scenario=None) -> str:
         parts.append("<h2>Notes</h2><ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in result.notes) + "</ul>")
     from .scenario import _plain
     opts = {k: _plain(v) for k, v in result.options.items()}
-    parts.append("<h2>Options in force</h2><pre>" + html.escape(json.dumps(opts, indent=1, default=str)) + "</pre>")
+    parts.append("<h2>Options in force</h2><details><summary>Show the options of this run "
+                 "(as in provenance.json)</summary><pre>"
+                 + html.escape(json.dumps(opts, indent=1, default=str)) + "</pre></details>")
     body = "\n".join(parts)
     title = "Deposition budget report"
     style = ("body{font-family:sans-serif;max-width:1100px;margin:auto;padding:1em;color:#222}"

@@ -1,7 +1,9 @@
 """The files the analyses add to a run folder (called by :func:`workbench.writers.write_run`).
 
 ``exceedance.csv`` (critical-load exceedance per site, receptor and year, and the span
-mean) and ``trends.csv`` (Mann-Kendall and seasonal Kendall trends); each further
+mean), ``trends.csv`` (Mann-Kendall and seasonal Kendall trends),
+``precipitation_annual.csv`` (depth and precipitation-weighted means per site and year)
+and ``quality.csv`` (data quality per site and year); each further
 analysis adds its file here, so that the run-folder code calls one function.
 """
 from __future__ import annotations
@@ -44,7 +46,25 @@ def write_analysis(result, study, scenario, out, atomic_write) -> dict:
     from .trends import detection_limit_notes, trend_table
     tr = trend_table(year_rows, month_rows, detection_limit_notes(study.inputs))
     written["trends.csv"] = _csv(tr, out / "trends.csv", atomic_write)
+    from .handover import precipitation_table, quality_table
+    wet = yearly_wet(result, study)
+    if wet is not None:
+        written["precipitation_annual.csv"] = _csv(precipitation_table(wet),
+                                                   out / "precipitation_annual.csv", atomic_write)
+    q = quality_table(result.years, wet, result.screened)
+    written["quality.csv"] = _csv(q, out / "quality.csv", atomic_write)
     return written
+
+
+def yearly_wet(result, study):
+    """The wet chain at calendar years (``Result.wet`` of a yearly run)."""
+    o = result.options
+    if o.get("resolution", "year") == "year" or result.wet is None:
+        return result.wet
+    years = result.years
+    start = str(years["period_start"].values.min())[:19]
+    end = str(years["period_end"].values.max())[:19]
+    return study.wet(o["wet"], study.periods("year", start, end, o["wet"].hydro_start_month))
 
 
 def monthly_result(result, study):
