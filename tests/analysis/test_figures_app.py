@@ -51,3 +51,23 @@ def test_explorer_on_demo_copy(analysis_scenario):
         assert app.path["ex_acidity_eq_ha_yr"].iloc[-1] == pytest.approx(0.0, abs=1e-9)
         app.site_w.value = "mere"
         assert app.receptor_w.value == "wetland" and app.path is not None
+
+
+def test_network_overview_has_trend_and_exceedance_columns(analysis_scenario):
+    from workbench.analysis.exceedance import acidity_exceedance
+    from workbench.ui.apps import NetworkOverview
+    from workbench.ui.session import Session
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = NetworkOverview(Session.open(analysis_scenario))
+    a = app.analysis.set_index("site")
+    assert list(a.index) == ["ridge", "mere"]
+    assert "not valid: 2 years" in a.loc["ridge", "S_trend"]
+    assert a.loc["mere", "exceedance_status"] == "flagged"
+    span = app.results["ridge"].table
+    tot = span[(span["period"] == "span") & (span["receptor"] == "conifer_forest")
+               & (span["pathway"] == "total") & (span["species"] == "all")].set_index("element")
+    ex = acidity_exceedance(tot.loc["S", "flux_eq_ha_yr"], tot.loc["N", "flux_eq_ha_yr"],
+                            950.0, 357.0, 1420.0)
+    assert a.loc["ridge", "ex_acidity_eq_ha_yr"] == pytest.approx(float(ex.exceedance))
+    assert "Trends of the annual totals" in app.analysis_w.value

@@ -124,3 +124,57 @@ class CriticalLoadsExplorer(widgets.VBox):
                                    self.path, where, MODES[mode]))
         self.table_w.value = table_html(self.path[list(PATH_COLUMNS)])
         return self.statement
+
+
+def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":
+    """Trend and exceedance columns of the network overview, per site on its own surface.
+
+    Parameters
+    ----------
+    results : dict
+        site -> ``Result`` of a yearly run of that site.
+    catalogue : SiteCatalogue
+        The sites (own land use and critical loads).
+
+    Returns
+    -------
+    DataFrame
+        site, receptor; ``S_trend`` and ``N_trend`` (Sen slope of the annual totals
+        [kg ha-1 yr-1 per yr], with p and "not valid" when fewer than the minimum of
+        complete years); the span's ``ex_acidity_eq_ha_yr``, ``ex_nutrient_n_eq_ha_yr``
+        and ``exceedance_status``.
+    """
+    import pandas as pd
+
+    from ..analysis.exceedance import exceedance_table
+    from ..analysis.trends import trend_table
+    rows = []
+    for site, res in results.items():
+        own = catalogue[site].land_use
+        row = {"site": site, "receptor": own}
+        years = res.table[(res.table["period"].astype(str) != "span")
+                          & (res.table["receptor"] == own) & (res.table["pathway"] == "total")
+                          & (res.table["species"] == "all")]
+        tr = trend_table(years)
+        tr = tr[tr["values"] == "all"] if len(tr) else tr
+        for el in ("S", "N"):
+            t = tr[tr["element"] == el] if len(tr) else tr
+            if len(t):
+                r = t.iloc[0]
+                row[f"{el}_trend"] = (f"{r['sen_slope_per_yr']:+.3g} per yr (p {r['p_value']:.2g}"
+                                      + ("" if r["valid"] else f", not valid: {r['n_years']} years")
+                                      + ")")
+            else:
+                row[f"{el}_trend"] = "–"
+        ex = exceedance_table(res, catalogue)
+        ex = ex[(ex["site"] == site) & (ex["receptor"] == own) & (ex["period"] == "span")]
+        if len(ex):
+            e = ex.iloc[0]
+            row.update(ex_acidity_eq_ha_yr=e["ex_acidity_eq_ha_yr"],
+                       ex_nutrient_n_eq_ha_yr=e["ex_nutrient_n_eq_ha_yr"],
+                       exceedance_status=e["status"])
+        else:
+            row.update(ex_acidity_eq_ha_yr=np.nan, ex_nutrient_n_eq_ha_yr=np.nan,
+                       exceedance_status="no critical loads")
+        rows.append(row)
+    return pd.DataFrame(rows)
