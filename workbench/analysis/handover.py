@@ -62,17 +62,16 @@ def _reasons_by_year(screened) -> pd.DataFrame:
                       .year.astype(str),
                       "status": screened["status"].values.astype(str),
                       "reasons": screened["reasons"].values.astype(str)})
-    out = []
+    keys = ["site", "period"]
+    out = f[keys].drop_duplicates().set_index(keys)
     for st in ("excluded", "flagged"):
         g = f[f["status"] == st].assign(reason=lambda d: d["reasons"].replace("", "no reason")
                                         .str.split("; ")).explode("reason")
-        counts = g.groupby(["site", "period", "reason"]).size().reset_index(name="n")
-        text = counts.groupby(["site", "period"]).apply(
-            lambda d: "; ".join(f"{r} ({n})" for r, n in zip(d["reason"], d["n"])),
-            include_groups=False)
-        out.append(text.rename(f"{st}_by_reason"))
-    return pd.concat(out, axis=1).reset_index() if any(len(o) for o in out) else \
-        pd.DataFrame(columns=["site", "period", "excluded_by_reason", "flagged_by_reason"])
+        counts = g.groupby(keys + ["reason"]).size().reset_index(name="n")
+        counts["text"] = counts["reason"] + " (" + counts["n"].astype(str) + ")"
+        out[f"{st}_by_reason"] = counts.groupby(keys)["text"].agg("; ".join) \
+            .reindex(out.index).fillna("")
+    return out.reset_index()
 
 
 def quality_table(years, wet=None, screened=None) -> pd.DataFrame:
