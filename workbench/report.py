@@ -82,6 +82,40 @@ def _exceedance_html(result, study) -> list:
     return out
 
 
+def _trend_html(result, study, first) -> tuple:
+    """Sen slopes of the annual S and N totals on each site's own surface, with a figure
+    each (trends.csv has every component, the monthly tests and the notes)."""
+    import plotly.io as pio
+    from .analysis.trends import MIN_YEARS, trend_table
+    from .tables import budget_table
+    from .ui.figures_analysis import trend_figure
+    t = budget_table(result.years)
+    cat = study.catalogue()
+    own = {s.id: s.land_use for s in cat}
+    tot = t[(t["pathway"] == "total") & (t["species"] == "all")
+            & (t["receptor"] == t["site"].map(own))]
+    out = ["<h2>Trends of the annual totals (Mann-Kendall, Sen slope)</h2>",
+           f"<p>A trend is valid with at least {MIN_YEARS} complete years; the band is the "
+           "95 % confidence interval of the slope. trends.csv has every component, the "
+           "seasonal Kendall test on monthly values and the notes.</p>"]
+    tr = trend_table(tot)
+    if tr.empty:
+        return out + ["<p>No annual totals.</p>"], first
+    tr = tr[tr["values"] == "all"]
+    out.append(_table_html(tr[["site", "receptor", "element", "n_years", "tau", "p_value",
+                               "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid"]]))
+    for (site, el), g in tot.groupby(["site", "element"], sort=False):
+        row = tr[(tr["site"] == site) & (tr["element"] == el)]
+        g = g.sort_values("period_start")
+        fig = trend_figure(g["period_start"].dt.year, g["flux_kg_ha_yr"],
+                           row.iloc[0].to_dict() if len(row) else None, g["status"].to_numpy(),
+                           f"{el} total · {site} · {own.get(site, '')}", "kg/ha/yr")
+        out.append(pio.to_html(fig, include_plotlyjs="inline" if first else False,
+                               full_html=False))
+        first = False
+    return out, first
+
+
 def render_report(result, study, scenario=None) -> str:
     """HTML text of the report: budget tables, figures, QA summary, omissions, cautions."""
     import plotly.io as pio
@@ -138,6 +172,8 @@ def render_report(result, study, scenario=None) -> str:
             parts.append(pio.to_html(fig, include_plotlyjs="inline" if first else False,
                                      full_html=False))
             first = False
+    trend_parts, first = _trend_html(result, study, first)
+    parts.extend(trend_parts)
     parts.append("<h2>Precipitation-chemistry QA</h2>")
     if result.screened is not None:
         st = pd.Series(result.screened["status"].values).value_counts().rename_axis("status") \

@@ -96,3 +96,10 @@ def test_run_resolution_month(analysis_scenario, tmp_path):
     assert set(e["period"].astype(str)) == {"2020", "2021", "span"}    # loads are annual
     with pytest.raises(SystemExit):
         main(["run", str(analysis_scenario), "--out", str(out), "--resolution", "week"])
+
+
+def test_report_has_trend_figures(analysis_run):
+    out, _, _ = analysis_run
+    html = (out / "report.html").read_text()
+    assert "Trends of the annual totals" in html and "S total · ridge · conifer_forest" in html
+    assert html.count("plotly.js v") <= 2        # plotly.js written once (its header)
