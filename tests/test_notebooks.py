@@ -49,7 +49,8 @@ def _outputs(nb):
     return [o for c in nb.cells if c.cell_type == "code" for o in c.get("outputs", [])]
 
 
-@pytest.mark.parametrize("name", ["site_budget", "sensitivity", "network_overview"])
+@pytest.mark.parametrize("name", ["site_budget", "sensitivity", "network_overview",
+                                  "critical_loads"])
 def test_notebook_runs_headless(name, scenarios, tmp_path):
     nb = _run(name, scenarios, tmp_path)
     outs = _outputs(nb)

@@ -32,6 +32,9 @@ def demo_folder() -> Path:
 
 DEMO_SCENARIO = demo_folder() / "scenario.toml"
 
+#: Reporting resolutions of ``workbench run --resolution`` (as ``[period] resolution``).
+RESOLUTIONS = ("year", "hydro_year", "season", "month")
+
 
 def _progress(quiet):
     if quiet:
@@ -49,7 +52,7 @@ def cmd_check(args) -> int:
     return 0
 
 
-def run_scenario(scenario_path, out, overwrite=False, quiet=False):
+def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=None):
     """Load a scenario, compute its budget and write the run folder.
 
     The output folder is checked and locked before anything is computed (a second run
@@ -81,7 +84,7 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False):
             p = sc.data["period"]
             from .comparison import run as run_compared
             result = run_compared(study, o["wet"], o["dry"], o["budget"], sc.fixed_velocity,
-                                  p["resolution"], p["start"], p["end"])
+                                  resolution or p["resolution"], p["start"], p["end"])
             step("writing")
             written = write_run(result, study, sc, out, progress=bar.set_postfix_str,
                                 folder=folder)
@@ -92,7 +95,8 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False):
 
 
 def cmd_run(args) -> int:
-    written, _, _ = run_scenario(args.scenario, args.out, args.overwrite, args.quiet)
+    written, _, _ = run_scenario(args.scenario, args.out, args.overwrite, args.quiet,
+                                 args.resolution)
     print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
     for name in written:
         print(f"  {name}")
@@ -153,6 +157,8 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--overwrite", action="store_true",
                    help="replace a non-empty output folder whole")
     r.add_argument("--quiet", action="store_true", help="no progress bar")
+    r.add_argument("--resolution", choices=RESOLUTIONS, default=None,
+                   help="reporting periods of budget.csv (default: the scenario's [period])")
     r.set_defaults(func=cmd_run)
     g = sub.add_parser("sensitivity", help="Sobol indices and a tornado of the budget totals "
                        "([sensitivity] section of the scenario)")

@@ -20,9 +20,30 @@ CAUTION = (
     "accredited laboratory and network practice.")
 
 
-def _table_html(frame: pd.DataFrame, float_format="{:.3g}") -> str:
+#: Significant digits of the report's numbers.
+DIGITS = 3
+
+
+def plain(v, digits=DIGITS) -> str:
+    """A number in plain notation with about `digits` significant digits: no exponent,
+    thousands separated by commas (1,713; 24.6; 0.0123).
+
+    >>> plain(1713.4), plain(24.56), plain(0.012345), plain(0.0), plain(float("nan"))
+    ('1,713', '24.6', '0.0123', '0', '–')
+    """
+    if v is None or not np.isfinite(v):
+        return "–"
+    if v == 0:
+        return "0"
+    decimals = max(0, digits - 1 - int(np.floor(np.log10(abs(v)))))
+    text = f"{v:,.{decimals}f}"
+    return text
+
+
+def _table_html(frame: pd.DataFrame, float_format=None) -> str:
+    fmt = plain if float_format is None else (lambda v: float_format.format(v))
     return frame.to_html(index=False, border=0, classes="tab", na_rep="–",
-                         float_format=lambda v: float_format.format(v))
+                         float_format=fmt)
 
 
 _MARK = {"complete": "", "flagged": " f", "partial": " p", "filled": " ~", "missing": ""}
@@ -33,11 +54,66 @@ def _pivot_html(per: pd.DataFrame) -> str:
     if per.empty:
         return "<p>No periods.</p>"
     cell = per.apply(lambda r: "–" if not np.isfinite(r["flux_kg_ha_yr"]) else
-                     f"{r['flux_kg_ha_yr']:.3g}{_MARK.get(r['status'], '?')}", axis=1)
+                     f"{plain(r['flux_kg_ha_yr'])}{_MARK.get(r['status'], '?')}", axis=1)
     wide = per.assign(cell=cell).pivot_table(index=["site", "receptor", "element"],
                                              columns="period", values="cell", aggfunc="first")
     wide.columns.name = None
     return wide.reset_index().to_html(index=False, border=0, classes="tab", na_rep="–")
+
+
+def _exceedance_html(result, study) -> list:
+    """The span's critical-load exceedances (exceedance.csv has every year)."""
+    from .analysis.exceedance import REGIONS, exceedance_table
+    ex = exceedance_table(result, study.catalogue())
+    out = ["<h2>Critical-load exceedance: mean of the years that pass completeness "
+           "[eq/ha/yr]</h2>"]
+    span = ex[ex["period"] == "span"]
+    if span.empty:
+        return out + ["<p>No critical loads in sites.toml, or no year passes completeness.</p>"]
+    out.append("<p>Acidity: the sum of the S and N reductions to the nearest point of the "
+               "critical load function (ICP Modelling and Mapping Manual); nutrient N: "
+               "deposition above CLnutN. Regions: "
+               + "; ".join(f"{k} {html.escape(v)}" for k, v in REGIONS.items() if k >= 0)
+               + ". Every year, the loads used and the notes are in exceedance.csv; critical "
+               "loads carry their own uncertainty.</p>")
+    cols = ["site", "receptor", "s_dep_eq_ha_yr", "n_dep_eq_ha_yr", "ex_acidity_eq_ha_yr",
+            "region", "ex_nutrient_n_eq_ha_yr", "status", "note"]
+    out.append(_table_html(span[cols]))
+    return out
+
+
+def _trend_html(result, study, first) -> tuple:
+    """Sen slopes of the annual S and N totals on each site's own surface, with a figure
+    each (trends.csv has every component, the monthly tests and the notes)."""
+    import plotly.io as pio
+    from .analysis.trends import MIN_YEARS, trend_table
+    from .tables import budget_table
+    from .ui.figures_analysis import trend_figure
+    t = budget_table(result.years)
+    cat = study.catalogue()
+    own = {s.id: s.land_use for s in cat}
+    tot = t[(t["pathway"] == "total") & (t["species"] == "all")
+            & (t["receptor"] == t["site"].map(own))]
+    out = ["<h2>Trends of the annual totals (Mann-Kendall, Sen slope)</h2>",
+           f"<p>A trend is valid with at least {MIN_YEARS} complete years; the band is the "
+           "95 % confidence interval of the slope. trends.csv has every component, the "
+           "seasonal Kendall test on monthly values and the notes.</p>"]
+    tr = trend_table(tot)
+    if tr.empty:
+        return out + ["<p>No annual totals.</p>"], first
+    tr = tr[tr["values"] == "all"]
+    out.append(_table_html(tr[["site", "receptor", "element", "n_years", "tau", "p_value",
+                               "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid"]]))
+    for (site, el), g in tot.groupby(["site", "element"], sort=False):
+        row = tr[(tr["site"] == site) & (tr["element"] == el)]
+        g = g.sort_values("period_start")
+        fig = trend_figure(g["period_start"].dt.year, g["flux_kg_ha_yr"],
+                           row.iloc[0].to_dict() if len(row) else None, g["status"].to_numpy(),
+                           f"{el} total · {site} · {own.get(site, '')}", "kg/ha/yr")
+        out.append(pio.to_html(fig, include_plotlyjs="inline" if first else False,
+                               full_html=False))
+        first = False
+    return out, first
 
 
 def render_report(result, study, scenario=None) -> str:
@@ -54,6 +130,7 @@ def render_report(result, study, scenario=None) -> str:
                                        "flux_eq_ha_yr", "status", "years_used", "years_excluded"]]))
     else:
         parts.append("<p>No year passes completeness.</p>")
+    parts.extend(_exceedance_html(result, study))
     parts.append("<h2>Totals per period [kg/ha/yr of S or N]</h2>")
     parts.append("<p>Marks: <b>f</b> flagged (fails completeness), <b>p</b> partial (a "
                  "component has no data), <b>~</b> filled, <b>–</b> missing. Exact values, "
@@ -97,6 +174,8 @@ def render_report(result, study, scenario=None) -> str:
             parts.append(pio.to_html(fig, include_plotlyjs="inline" if first else False,
                                      full_html=False))
             first = False
+    trend_parts, first = _trend_html(result, study, first)
+    parts.extend(trend_parts)
     parts.append("<h2>Precipitation-chemistry QA</h2>")
     if result.screened is not None:
         st = pd.Series(result.screened["status"].values).value_counts().rename_axis("status") \
@@ -119,7 +198,9 @@ def render_report(result, study, scenario=None) -> str:
         parts.append("<h2>Notes</h2><ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in result.notes) + "</ul>")
     from .scenario import _plain
     opts = {k: _plain(v) for k, v in result.options.items()}
-    parts.append("<h2>Options in force</h2><pre>" + html.escape(json.dumps(opts, indent=1, default=str)) + "</pre>")
+    parts.append("<h2>Options in force</h2><details><summary>Show the options of this run "
+                 "(as in provenance.json)</summary><pre>"
+                 + html.escape(json.dumps(opts, indent=1, default=str)) + "</pre></details>")
     body = "\n".join(parts)
     title = "Deposition budget report"
     style = ("body{font-family:sans-serif;max-width:1100px;margin:auto;padding:1em;color:#222}"

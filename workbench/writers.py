@@ -233,10 +233,14 @@ def write_files(result, study, scenario, folder: Path, progress=None, started=No
     say = progress or (lambda text: None)
     folder = Path(folder)
     names = []
-    for name, writer in OUTPUT_STEPS + [("provenance.json", None)]:
+    for name, writer in OUTPUT_STEPS + [("analysis", None), ("provenance.json", None)]:
         say(name)
         path = folder / name
         try:
+            if name == "analysis":       # exceedance, trends, handover tables (several files)
+                from .analysis.outputs import write_analysis
+                names.extend(write_analysis(result, study, scenario, folder, atomic_write))
+                continue
             if writer is None:
                 prov = provenance(scenario, input_paths(study, scenario), started)
                 prov["outputs"] = names + ["provenance.json"]

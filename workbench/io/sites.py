@@ -74,6 +74,13 @@ class Site:
     critical_loads: dict = field(default_factory=dict)
     coast_distance_km: float | None = None
     coarse_fraction: dict = field(default_factory=dict)
+    #: receptor -> {critical-load key: value} from ``[site.critical_loads.<receptor>]``
+    receptor_critical_loads: dict = field(default_factory=dict)
+
+    def critical_loads_for(self, receptor) -> dict:
+        """Critical loads of a receptor [eq ha-1 yr-1]: the site's, with the receptor's
+        own table (if any) taking precedence key by key."""
+        return {**self.critical_loads, **self.receptor_critical_loads.get(receptor, {})}
 
     @property
     def surfaces(self) -> tuple:
@@ -212,6 +219,24 @@ def _key_line(text_lines, block_starts, k, key):
     return start + 1
 
 
+def _table_key_line(text_lines, block_starts, k, receptor, key):
+    """Line (1-based) of `key` in the ``[site.critical_loads.<receptor>]`` table of the
+    k-th [[site]] block (the table's header line when the key is not found)."""
+    start = block_starts[k] if k < len(block_starts) else 0
+    end = block_starts[k + 1] if k + 1 < len(block_starts) else len(text_lines)
+    head = re.compile(rf"^\s*\[\s*site\.critical_loads\.{re.escape(receptor)}\s*\]")
+    pat = re.compile(rf"^\s*{re.escape(key)}\s*=")
+    for i in range(start, end):
+        if head.match(text_lines[i]):
+            for j in range(i + 1, end):
+                if text_lines[j].lstrip().startswith("["):
+                    break
+                if pat.match(text_lines[j]):
+                    return j + 1
+            return i + 1
+    return _key_line(text_lines, block_starts, k, key)
+
+
 def read_sites(path) -> SiteCatalogue:
     """Read and validate a site catalogue.
 
@@ -258,7 +283,10 @@ def read_sites(path) -> SiteCatalogue:
         sid = t["id"]
         if isinstance(sid, str) and sid in seen:
             raise err("duplicate site id", "id", sid, f"ids unique (first at site {seen[sid] + 1})")
-        sites.append(check_site(t, err, notes, f"{path.name}, site {sid!r}"))
+        def table_err(problem, receptor, key, value=None, expected=None, k=k):
+            return InputError(problem, file=path, value=value, expected=expected, column=key,
+                              line=_table_key_line(lines, starts, k, receptor, key))
+        sites.append(check_site(t, err, notes, f"{path.name}, site {sid!r}", table_err))
         seen[sid] = k
     return SiteCatalogue(sites, path, notes)
 
@@ -274,7 +302,7 @@ def _type_check(t, err):
             raise err("wrong type", key, v, f"a {names} ({desc})")
 
 
-def check_site(t: dict, err, notes: list, label: str) -> Site:
+def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
     """Validate one site's keys (a ``[[site]]`` table, or one with scenario overrides).
 
     Parameters
@@ -288,6 +316,9 @@ def check_site(t: dict, err, notes: list, label: str) -> Site:
         Hints on doubtful values are appended here.
     label : str
         Names the site in the hints.
+    table_err : callable, optional
+        ``table_err(problem, receptor, key, value=None, expected=None)`` -> an error
+        located in a ``[site.critical_loads.<receptor>]`` table (default: `err`).
 
     Returns
     -------
@@ -347,12 +378,39 @@ def check_site(t: dict, err, notes: list, label: str) -> Site:
             raise err("lai_min above lai_max", "lai_min", t["lai_min"], "0 <= lai_min <= lai_max")
         lai = _monthly_lai(float(t["lai_min"]), float(t["lai_max"]), t["latitude"])
     cl = dict(t.get("critical_loads", {}))
+    per_receptor = {r: cl.pop(r) for r in list(cl) if isinstance(cl[r], dict)}
+    if table_err is None:
+        def table_err(problem, receptor, key, value=None, expected=None):
+            return err(problem, "critical_loads", value, expected)
+    surfaces = [t["land_use"]] + [r for r in receptors if r != t["land_use"]]
+    for r, table in per_receptor.items():
+        if r not in surfaces:
+            raise table_err("critical loads for a receptor the site does not have", r,
+                            "critical_loads", r, "one of the site's surfaces: "
+                            + ", ".join(surfaces) + suggest(r, surfaces))
+        for key, v in table.items():
+            if key not in CRITICAL_LOAD_KEYS:
+                raise table_err(f"unknown critical-load key in [site.critical_loads.{r}]", r, key,
+                                expected="one of " + ", ".join(CRITICAL_LOAD_KEYS)
+                                + suggest(key, CRITICAL_LOAD_KEYS))
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or v < 0:
+                raise table_err(f"bad critical load in [site.critical_loads.{r}]", r, key, v,
+                                "a number >= 0 in eq/ha/yr")
     for key, v in cl.items():
         if key not in CRITICAL_LOAD_KEYS:
             raise err("unknown critical-load key", key, expected="one of "
                       + ", ".join(CRITICAL_LOAD_KEYS) + suggest(key, CRITICAL_LOAD_KEYS))
         if isinstance(v, bool) or not isinstance(v, (int, float)) or v < 0:
             raise err("bad critical load", key, v, "a number >= 0 in eq/ha/yr")
+    for r in [None] + list(per_receptor):
+        merged = {**cl, **(per_receptor[r] if r else {})}
+        if merged.get("cl_max_n", np.inf) < merged.get("cl_min_n", -np.inf):
+            where = f"[site.critical_loads.{r}]" if r else "[site.critical_loads]"
+            problem = f"impossible critical load function in {where}: cl_max_n below cl_min_n"
+            expected = f"cl_max_n >= cl_min_n = {merged['cl_min_n']:g} eq/ha/yr"
+            if r:
+                raise table_err(problem, r, "cl_max_n", merged["cl_max_n"], expected)
+            raise err(problem, "cl_max_n", merged["cl_max_n"], expected)
     coarse = dict(t.get("coarse_fraction", {}))
     for key, v in coarse.items():
         if key not in PARTICLE_SPECIES:
@@ -378,7 +436,9 @@ def check_site(t: dict, err, notes: list, label: str) -> Site:
         met_land_use=t.get("met_land_use"), collector=collector,
         receptors=tuple(receptors), critical_loads={k2: float(v) for k2, v in cl.items()},
         coast_distance_km=None if "coast_distance_km" not in t else float(t["coast_distance_km"]),
-        coarse_fraction={k2: float(v) for k2, v in coarse.items()})
+        coarse_fraction={k2: float(v) for k2, v in coarse.items()},
+        receptor_critical_loads={r: {k2: float(v) for k2, v in tb.items()}
+                                 for r, tb in per_receptor.items()})
 
 
 #: Station elevations possible on land [m] (lowest shore about -430 m, highest summit
@@ -463,7 +523,8 @@ def site_dict(site: Site) -> dict:
            "wind_height_m": site.wind_height_m, "sampler_height_m": site.sampler_height_m,
            "utc_offset_h": site.utc_offset_h, "terrain_slope_deg": site.terrain_slope_deg,
            "collector": site.collector, "receptors": list(site.receptors),
-           "critical_loads": dict(site.critical_loads)}
+           "critical_loads": {**site.critical_loads,
+                              **{r: dict(tb) for r, tb in site.receptor_critical_loads.items()}}}
     if site.coarse_fraction:
         out["coarse_fraction"] = dict(site.coarse_fraction)
     for key in ("roughness_length_m", "displacement_height_m", "met_land_use",

@@ -163,9 +163,15 @@ class NetworkOverview(widgets.VBox):
         self.figs = {}
         self._draw(create=True)
         self.unit_w.observe(lambda c: self._draw(), "value")
+        from .apps_analysis import network_analysis_table
+        self.analysis = network_analysis_table(self.results, self.session.study.catalogue())
+        self.analysis_w = widgets.HTML("<b>Trends of the annual totals and critical-load "
+                                       "exceedance of the span [eq/ha/yr]</b>"
+                                       + table_html(self.analysis))
         super().__init__([widgets.HTML("<h3>Network overview</h3>"), caution_box(),
                           widgets.HBox([self.unit_w, self.progress]), self.figs["totals"],
-                          widgets.HBox([self.figs["S"], self.figs["N"]]), self.apart_w])
+                          widgets.HBox([self.figs["S"], self.figs["N"]]), self.apart_w,
+                          self.analysis_w])
 
     def table(self, unit=None) -> pd.DataFrame:
         """Annual totals of every site on its own surface (see :func:`network_table`)."""

@@ -1,0 +1,73 @@
+"""The critical-load figure (its spec) and the explorer on a small demo copy."""
+import json
+import warnings
+
+import numpy as np
+import pytest
+
+from workbench.analysis.whatif import path_table
+from workbench.ui.figures_analysis import clf_figure, clf_spec
+
+LOADS = {"cl_max_s": 950.0, "cl_min_n": 357.0, "cl_max_n": 1420.0, "cl_nut_n": 714.0}
+PARTS = {"S_wet": 300.0, "S_dry": 420.0, "NOx_wet": 350.0, "NOx_dry": 300.0,
+         "NHx_wet": 450.0, "NHx_dry": 610.0}
+
+
+def test_clf_spec_draws_function_point_and_path():
+    path = path_table(PARTS, {"S": 0.8, "NOx": 0.6, "NHx": 0.6}, LOADS)
+    spec = clf_spec(LOADS, 720.0, 1710.0, path, "ridge", "air only")
+    json.dumps(spec)                                   # plain JSON
+    names = [t["name"] for t in spec["data"]]
+    fn = spec["data"][0]
+    assert fn["x"] == [0, 0, 357.0, 1420.0, 0] and fn["y"] == [0, 950.0, 950.0, 0, 0]
+    assert any(n.startswith("exceedance ends") for n in names)
+    assert "what-if path (air only)" in names and "deposition" in names
+    end = next(t for t in spec["data"] if t["name"].startswith("exceedance ends"))
+    i = int(np.flatnonzero(path["ex_acidity_eq_ha_yr"].to_numpy() <= 0)[0])
+    assert end["x"] == [path["n_dep_eq_ha_yr"].iloc[i]]
+    fig = clf_figure(LOADS, 720.0, 1710.0, path)
+    assert len(fig.data) == len(spec["data"])
+
+
+def test_clf_spec_without_loads():
+    spec = clf_spec({})
+    assert spec["data"] == []
+
+
+def test_explorer_on_demo_copy(analysis_scenario):
+    from workbench.ui.apps_analysis import CriticalLoadsExplorer
+    from workbench.ui.session import Session
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = CriticalLoadsExplorer(Session.open(analysis_scenario), site="ridge")
+        assert app.year_w.value == "2021"
+        text = app.draw()
+        assert text.startswith("ridge · conifer_forest · 2021: ")
+        assert "acidity exceedance" in text
+        app.cut_w["S"].value = 100
+        app.cut_w["NHx"].value = 100
+        app.cut_w["NOx"].value = 100
+        assert "ends the acidity exceedance" in app.statement
+        assert app.path["ex_acidity_eq_ha_yr"].iloc[-1] == pytest.approx(0.0, abs=1e-9)
+        app.site_w.value = "mere"
+        assert app.receptor_w.value == "wetland" and app.path is not None
+
+
+def test_network_overview_has_trend_and_exceedance_columns(analysis_scenario):
+    from workbench.analysis.exceedance import acidity_exceedance
+    from workbench.ui.apps import NetworkOverview
+    from workbench.ui.session import Session
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = NetworkOverview(Session.open(analysis_scenario))
+    a = app.analysis.set_index("site")
+    assert list(a.index) == ["ridge", "mere"]
+    assert "not valid: 2 years" in a.loc["ridge", "S_trend"]
+    assert a.loc["mere", "exceedance_status"] == "flagged"
+    span = app.results["ridge"].table
+    tot = span[(span["period"] == "span") & (span["receptor"] == "conifer_forest")
+               & (span["pathway"] == "total") & (span["species"] == "all")].set_index("element")
+    ex = acidity_exceedance(tot.loc["S", "flux_eq_ha_yr"], tot.loc["N", "flux_eq_ha_yr"],
+                            950.0, 357.0, 1420.0)
+    assert a.loc["ridge", "ex_acidity_eq_ha_yr"] == pytest.approx(float(ex.exceedance))
+    assert "Trends of the annual totals" in app.analysis_w.value

@@ -1,0 +1,93 @@
+"""What-if reductions: the path, and the smallest cut that ends an exceedance."""
+import numpy as np
+import pandas as pd
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from workbench.analysis.exceedance import acidity_exceedance, nutrient_n_exceedance
+from workbench.analysis.whatif import (group_deposition, path_table, plain_statement, scaled,
+                                       smallest_fraction)
+
+LOADS = {"cl_max_s": 950.0, "cl_min_n": 357.0, "cl_max_n": 1420.0, "cl_nut_n": 714.0}
+#: invented split of a deposition close to the demo ridge site's [eq/ha/yr]
+PARTS = {"S_wet": 300.0, "S_dry": 420.0, "NOx_wet": 350.0, "NOx_dry": 300.0,
+         "NHx_wet": 450.0, "NHx_dry": 610.0}
+
+
+def _ex(s, n):
+    return float(acidity_exceedance(s, n, LOADS["cl_max_s"], LOADS["cl_min_n"],
+                                    LOADS["cl_max_n"]).exceedance)
+
+
+@pytest.mark.parametrize("mode, cuts", [("air_and_wet", {"S": 0.8, "NOx": 0.6, "NHx": 0.6}),
+                                         ("air_only", {"S": 1.0, "NOx": 1.0, "NHx": 1.0})])
+def test_path_ends_where_exceedance_is_zero(mode, cuts):
+    t_acid, t_nut = (float(v) for v in smallest_fraction(PARTS, cuts, LOADS, mode))
+    assert 0 < t_acid < 1
+    s, n = scaled(PARTS, {g: t_acid * c for g, c in cuts.items()}, mode)
+    assert _ex(s, n) == pytest.approx(0.0, abs=1e-9)
+    s, n = scaled(PARTS, {g: (t_acid - 1e-6) * c for g, c in cuts.items()}, mode)
+    assert _ex(s, n) > 0
+    if np.isfinite(t_nut) and t_nut <= 1:
+        s, n = scaled(PARTS, {g: t_nut * c for g, c in cuts.items()}, mode)
+        assert n == pytest.approx(LOADS["cl_nut_n"], rel=1e-12)
+    table = path_table(PARTS, cuts, LOADS, mode)
+    # exceedance along the path never rises, and is 0 from the smallest fraction on
+    assert (np.diff(table["ex_acidity_eq_ha_yr"]) <= 1e-9).all()
+    after = table[table["fraction"] >= t_acid]
+    assert (after["ex_acidity_eq_ha_yr"] <= 1e-9).all() and (after["region"] == 0).all()
+    assert (table.loc[table["fraction"] < t_acid, "ex_acidity_eq_ha_yr"] > 0).all()
+    assert (table["mode"] == mode).all()
+
+
+@settings(max_examples=50, deadline=None)
+@given(cs=st.floats(0.1, 1), cn=st.floats(0, 1), ch=st.floats(0, 1))
+def test_smallest_fraction_is_the_first_zero(cs, cn, ch):
+    """Exact fraction against a fine walk along the path (independent check)."""
+    cuts = {"S": cs, "NOx": cn, "NHx": ch}
+    t_acid, _ = (float(v) for v in smallest_fraction(PARTS, cuts, LOADS))
+    t = np.linspace(0, 1, 2001)
+    s, n = scaled(PARTS, {}, "air_and_wet")
+    s1, n1 = scaled(PARTS, cuts, "air_and_wet")
+    ex = acidity_exceedance(s - t * (s - s1), n - t * (n - n1), LOADS["cl_max_s"],
+                            LOADS["cl_min_n"], LOADS["cl_max_n"]).exceedance
+    zero = np.flatnonzero(ex <= 1e-9)
+    if np.isinf(t_acid):
+        assert zero.size == 0
+    else:
+        assert zero.size and t[zero[0]] == pytest.approx(t_acid, abs=1 / 2000 + 1e-12)
+
+
+def test_unreachable_and_not_exceeded():
+    a, n = smallest_fraction(PARTS, {"NHx": 0.1}, LOADS)
+    assert np.isinf(a) and np.isinf(n)
+    low = {k: v / 10 for k, v in PARTS.items()}
+    a, n = smallest_fraction(low, {"S": 0.5}, LOADS)
+    assert a == 0 and n == 0
+    text = plain_statement(PARTS, {"NHx": 0.1}, LOADS, where="ridge")
+    assert text.startswith("ridge: Even cutting reduced N by 10 % (air concentrations and wet")
+    assert "leaves a nutrient-N exceedance" in text
+
+
+def test_air_only_leaves_wet_deposition():
+    s, n = scaled(PARTS, {"S": 1.0, "NOx": 1.0, "NHx": 1.0}, "air_only")
+    assert s == PARTS["S_wet"] and n == PARTS["NOx_wet"] + PARTS["NHx_wet"]
+    with pytest.raises(ValueError, match="expected a fraction"):
+        scaled(PARTS, {"S": 1.5})
+    with pytest.raises(ValueError, match="unknown mode"):
+        scaled(PARTS, {}, "wet_only")
+
+
+def test_group_deposition_adds_up_to_the_totals(analysis_run):
+    _, result, _ = analysis_run
+    g = group_deposition(result.years)
+    t = result.table
+    tot = t[(t["pathway"] == "total") & (t["species"] == "all") & (t["period"] != "span")]
+    s = tot[tot["element"] == "S"].set_index(["site", "receptor", "period"])["flux_eq_ha_yr"]
+    n = tot[tot["element"] == "N"].set_index(["site", "receptor", "period"])["flux_eq_ha_yr"]
+    mine_s = (g["S_wet"] + g["S_dry"]).to_series()
+    mine_n = sum(g[f"{x}_{p}"] for x in ("NOx", "NHx") for p in ("wet", "dry")).to_series()
+    idx = s.dropna().index
+    np.testing.assert_allclose(mine_s.reindex(idx), s.loc[idx], rtol=1e-9)
+    np.testing.assert_allclose(mine_n.reindex(idx), n.loc[idx], rtol=1e-9)

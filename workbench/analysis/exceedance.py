@@ -1,0 +1,317 @@
+"""Exceedance of critical loads of acidity and of nutrient nitrogen.
+
+The critical load function of acidity (CLF) is the line in the (N, S) deposition
+plane through (0, CLmaxS), (CLminN, CLmaxS) and (CLmaxN, 0); deposition on or below it
+does not exceed the critical loads.  The exceedance of a deposition (N, S) above it is
+the sum of the N and S reductions to the nearest point of the function, and the region
+says which part of the function that nearest point lies on (ICP Modelling and Mapping
+Manual, chapter on the exceedance of critical loads; Posch, Hettelingh and De Smet
+2001).  All loads and depositions in one unit, by convention [eq ha-1 yr-1].
+
+Regions (our numbering, after the manual's figure):
+
+====  ==============================================================================
+0     not exceeded: on or below the function
+1     nearest point on the flat part (N <= CLminN): reduce S only, Ex = S - CLmaxS
+2     nearest point is the corner (CLminN, CLmaxS): Ex = S + N - CLminN - CLmaxS
+3     nearest point on the sloping part: reduce S and N
+4     nearest point is the corner (CLmaxN, 0): Ex = S + N - CLmaxN
+====  ==============================================================================
+"""
+from __future__ import annotations
+
+from typing import NamedTuple
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from ..errors import WorkbenchError
+
+#: The keys of a critical load function of acidity and of nutrient N [eq ha-1 yr-1].
+ACIDITY_KEYS = ("cl_max_s", "cl_min_n", "cl_max_n")
+NUTRIENT_KEY = "cl_nut_n"
+#: Region codes and what each says, for tables and figures.
+REGIONS = {
+    -1: "not computed (deposition or critical load missing)",
+    0: "not exceeded",
+    1: "reduce S only (above the flat part of the function)",
+    2: "nearest the corner (CLminN, CLmaxS): reduce S and N",
+    3: "nearest the sloping part: reduce S and N",
+    4: "nearest the corner (CLmaxN, 0): reduce S and N",
+}
+#: Points within this fraction of CLmaxN + CLmaxS of the function count as on it,
+#: so that a point computed on the function in floating point gives 0 (common practice).
+ON_FUNCTION_RTOL = 1e-12
+
+
+class ExceedanceError(WorkbenchError, ValueError):
+    """An impossible critical load function or a negative deposition."""
+
+
+class AcidityExceedance(NamedTuple):
+    """Result of :func:`acidity_exceedance` (each of the input's shape and type)."""
+
+    exceedance: object   #: sum of the S and N reductions [eq ha-1 yr-1]
+    region: object       #: region code, see :data:`REGIONS` [1]
+    s_reduction: object  #: S reduction to the nearest point [eq ha-1 yr-1]
+    n_reduction: object  #: N reduction to the nearest point [eq ha-1 yr-1]
+
+
+def check_function(cl_max_s, cl_min_n, cl_max_n):
+    """Raise :class:`ExceedanceError` for a negative load or CLmaxN below CLminN.
+
+    NaN entries (no critical load) pass; they give NaN exceedances.
+    """
+    s, n0, n1 = (np.asarray(v, dtype=float) for v in (cl_max_s, cl_min_n, cl_max_n))
+    for name, v in (("cl_max_s", s), ("cl_min_n", n0), ("cl_max_n", n1)):
+        bad = v < 0
+        if np.any(bad):
+            raise ExceedanceError(f"negative critical load {name} = {v[bad].flat[0]:g} "
+                                  f"(at position {int(np.flatnonzero(bad)[0])}); expected >= 0 eq/ha/yr")
+    bad = np.broadcast_to(n1 < n0, np.broadcast(n0, n1).shape)
+    if np.any(bad):
+        i = int(np.flatnonzero(bad)[0])
+        raise ExceedanceError(
+            f"impossible critical load function: cl_max_n = {np.broadcast_to(n1, bad.shape).flat[i]:g}"
+            f" below cl_min_n = {np.broadcast_to(n0, bad.shape).flat[i]:g} eq/ha/yr "
+            f"(at position {i}); expected cl_max_n >= cl_min_n")
+
+
+def _check_deposition(s_dep, n_dep):
+    for name, v in (("S", s_dep), ("N", n_dep)):
+        bad = np.asarray(v) < 0
+        if np.any(bad):
+            raise ExceedanceError(f"negative {name} deposition {np.asarray(v)[bad].flat[0]:g} "
+                                  f"(at position {int(np.flatnonzero(bad)[0])}); expected >= 0 eq/ha/yr")
+
+
+def _project(n, s, n_a, s_a, n_b, s_b):
+    """Nearest point of the segment a-b to (n, s): (t in [0, 1], squared distance)."""
+    dn, ds = n_b - n_a, s_b - s_a
+    length2 = dn * dn + ds * ds
+    with np.errstate(invalid="ignore", divide="ignore"):
+        t = np.where(length2 > 0, ((n - n_a) * dn + (s - s_a) * ds) / length2, 0.0)
+    t = np.clip(t, 0.0, 1.0)
+    en, es = n - (n_a + t * dn), s - (s_a + t * ds)
+    return t, en * en + es * es
+
+
+def _acidity_numpy(s_dep, n_dep, cl_max_s, cl_min_n, cl_max_n):
+    s, n, cs, c0, c1 = np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in (
+        s_dep, n_dep, cl_max_s, cl_min_n, cl_max_n)))
+    slope = c1 - c0
+    tol = ON_FUNCTION_RTOL * (cs + c1)
+    inside = (s <= cs + tol) & (n <= c1 + tol) & (slope * s + cs * (n - c1) <= tol * (slope + cs))
+    # flat part (0, CLmaxS)-(CLminN, CLmaxS) and sloping part (CLminN, CLmaxS)-(CLmaxN, 0)
+    t_a, d_a = _project(n, s, 0.0, cs, c0, cs)
+    t_b, d_b = _project(n, s, c0, cs, c1, 0.0)
+    on_a = d_a <= d_b
+    n_near = np.where(on_a, t_a * c0, c0 + t_b * slope)
+    s_near = np.where(on_a, cs, cs * (1.0 - t_b))
+    region = np.select([on_a & (t_a < 1.0), on_a | (t_b == 0.0), t_b < 1.0], [1, 2, 3], 4)
+    missing = np.isnan(s) | np.isnan(n) | np.isnan(cs) | np.isnan(c0) | np.isnan(c1)
+    dn = np.where(inside, 0.0, np.maximum(n - n_near, 0.0))
+    ds = np.where(inside, 0.0, np.maximum(s - s_near, 0.0))
+    dn, ds = np.where(missing, np.nan, dn), np.where(missing, np.nan, ds)
+    region = np.where(missing, -1, np.where(inside, 0, region)).astype(np.int8)
+    return dn + ds, region, ds, dn
+
+
+def acidity_exceedance(s_dep, n_dep, cl_max_s, cl_min_n, cl_max_n) -> AcidityExceedance:
+    """Exceedance of the critical load function of acidity and its region.
+
+    Parameters
+    ----------
+    s_dep : float, ndarray or DataArray
+        Sulfur deposition (non-sea-salt) [eq ha-1 yr-1].
+    n_dep : float, ndarray or DataArray
+        Total (oxidized + reduced) nitrogen deposition [eq ha-1 yr-1].
+    cl_max_s, cl_min_n, cl_max_n : float, ndarray or DataArray
+        The critical load function [eq ha-1 yr-1]; all arguments broadcast together.
+
+    Returns
+    -------
+    AcidityExceedance
+        ``exceedance`` [eq ha-1 yr-1], ``region`` (code of :data:`REGIONS`),
+        ``s_reduction`` and ``n_reduction`` [eq ha-1 yr-1]; NaN (region -1) where an
+        input is NaN.  DataArrays in give DataArrays out.
+
+    Raises
+    ------
+    ExceedanceError
+        For a negative load or deposition, or CLmaxN below CLminN.
+
+    Notes
+    -----
+    The nearest point :math:`(N_0, S_0)` of the function to the deposition
+    :math:`(N_{dep}, S_{dep})` (Euclidean) gives
+
+    .. math:: Ex = (S_{dep} - S_0) + (N_{dep} - N_0)
+
+    and :math:`Ex = 0` on or below the function.  The nearest point is found by projecting
+    on the flat part and on the sloping part and keeping the closer, so that the four
+    regions of the manual's case distinction follow from where the projection lands.
+
+    References
+    ----------
+    ICP Modelling and Mapping Manual (UBA, Dessau), chapter "Dynamic modelling" /
+    "Exceedance of critical loads" (Posch et al.): the exceedance of the critical load
+    function as the sum of N and S reductions to its nearest point.
+    Posch, M., Hettelingh, J.-P., De Smet, P.A.M. (2001) Characterization of critical
+    load exceedances in Europe. Water Air Soil Pollut. 130, 1139-1144.
+
+    Examples
+    --------
+    Above the flat part only S has to go (a hand-worked case):
+
+    >>> r = acidity_exceedance(1200.0, 200.0, 950.0, 357.0, 1420.0)
+    >>> float(r.exceedance), int(r.region)
+    (250.0, 1)
+    """
+    check_function(cl_max_s, cl_min_n, cl_max_n)
+    _check_deposition(s_dep, n_dep)
+    args = (s_dep, n_dep, cl_max_s, cl_min_n, cl_max_n)
+    if any(isinstance(a, xr.DataArray) for a in args):
+        out = xr.apply_ufunc(_acidity_numpy, *args, output_core_dims=[[]] * 4,
+                             dask="parallelized", output_dtypes=[float, np.int8, float, float])
+        for o, unit in zip(out, ("eq ha-1 yr-1", "1", "eq ha-1 yr-1", "eq ha-1 yr-1")):
+            o.attrs["units"] = unit
+        return AcidityExceedance(*out)
+    out = _acidity_numpy(*args)
+    if all(np.ndim(a) == 0 for a in args):
+        out = tuple(o[()] for o in out)
+    return AcidityExceedance(*out)
+
+
+def nutrient_n_exceedance(n_dep, cl_nut_n):
+    """Exceedance of the critical load of nutrient nitrogen.
+
+    Parameters
+    ----------
+    n_dep : float, ndarray or DataArray
+        Total nitrogen deposition [eq ha-1 yr-1].
+    cl_nut_n : float, ndarray or DataArray
+        Critical load of nutrient N [eq ha-1 yr-1].
+
+    Returns
+    -------
+    Same type as the input
+        :math:`\\max(N_{dep} - CL_{nut}N, 0)` [eq ha-1 yr-1] (NaN where an input is NaN).
+
+    References
+    ----------
+    ICP Modelling and Mapping Manual (UBA, Dessau), exceedance of the critical load of
+    nutrient nitrogen.
+
+    >>> float(nutrient_n_exceedance(1713.0, 714.0))
+    999.0
+    """
+    if np.any(np.asarray(cl_nut_n) < 0):
+        raise ExceedanceError("negative critical load cl_nut_n; expected >= 0 eq/ha/yr")
+    _check_deposition(0.0, n_dep)
+    return np.maximum(n_dep - cl_nut_n, 0.0)
+
+
+# ------------------------------------------------------------------ the table of a run
+EXCEEDANCE_COLUMNS = ("site", "receptor", "period", "s_dep_eq_ha_yr", "n_dep_eq_ha_yr",
+                      "ex_acidity_eq_ha_yr", "region", "ex_nutrient_n_eq_ha_yr", "status")
+
+
+def annual_totals(result) -> pd.DataFrame:
+    """Total S and N deposition per site, receptor and calendar year, and the span mean.
+
+    Returns
+    -------
+    DataFrame
+        site, receptor, period, ``s_dep_eq_ha_yr``, ``n_dep_eq_ha_yr`` [eq ha-1 yr-1],
+        ``s_status``, ``n_status``, ``s_missing``, ``n_missing``.
+    """
+    from ..tables import budget_table, span_table
+    if result.options.get("resolution", "year") == "year":
+        rows = result.table
+    else:
+        years = budget_table(result.years)
+        rows = pd.concat([years, span_table(years)], ignore_index=True)
+    tot = rows[(rows["pathway"] == "total") & (rows["species"] == "all")]
+    keys = ["site", "receptor", "period"]
+    parts = []
+    for el in ("S", "N"):
+        e = tot[tot["element"] == el].set_index(keys)
+        miss = e["missing_components"] if "missing_components" in e else pd.Series("", e.index)
+        parts.append(pd.DataFrame({f"{el.lower()}_dep_eq_ha_yr": e["flux_eq_ha_yr"],
+                                   f"{el.lower()}_status": e["status"],
+                                   f"{el.lower()}_missing": miss.fillna("").astype(str)}))
+    return pd.concat(parts, axis=1).reset_index()
+
+
+def _join(*notes) -> np.ndarray:
+    """Notes joined element-wise with "; ", empty ones left out."""
+    cols = [pd.Series(n, dtype=object).fillna("").astype(str).to_numpy() for n in notes]
+    return np.array(["; ".join(v for v in row if v) for row in zip(*cols)], dtype=object)
+
+
+def _status(frame: pd.DataFrame):
+    """Status and note of an exceedance from the statuses of the S and N totals."""
+    st = frame[["s_status", "n_status"]].astype(str)
+    status = np.select([st.eq("missing").any(axis=1), st.isin(["partial", "flagged"]).any(axis=1),
+                        st.eq("filled").any(axis=1)], ["missing", "flagged", "filled"], "complete")
+    notes = []
+    for el in ("s", "n"):
+        s = frame[f"{el}_status"].astype(str).reset_index(drop=True)
+        m = frame[f"{el}_missing"].astype(str).reset_index(drop=True)
+        text = f"{el.upper()} total " + s + np.where(m != "", " (without " + m + ")", "")
+        notes.append(text.where(s.isin(["partial", "flagged", "missing"]), ""))
+    return status, _join(*notes)
+
+
+def exceedance_table(result, catalogue) -> pd.DataFrame:
+    """``exceedance.csv``: one row per site, receptor and year (and the span mean).
+
+    Parameters
+    ----------
+    result : workbench.pipeline.Result
+    catalogue : workbench.io.sites.SiteCatalogue
+        The sites with their critical loads [eq ha-1 yr-1].
+
+    Returns
+    -------
+    DataFrame
+        :data:`EXCEEDANCE_COLUMNS`, then the loads, the S and N reductions and a note.
+        Pairs of site and receptor without any critical load are left out; a status
+        other than ``complete`` comes from the S or N total and the note says which.
+        A receptor without its own ``[site.critical_loads.<receptor>]`` table takes the
+        site's loads, and the note says that they were given for the site's land use.
+    """
+    t = annual_totals(result)
+    loads = pd.DataFrame([
+        {"site": s.id, "receptor": r, **{k: s.critical_loads_for(r).get(k, np.nan)
+                                        for k in ACIDITY_KEYS + (NUTRIENT_KEY,)}}
+        for s in catalogue for r in s.surfaces if s.critical_loads_for(r)],
+        columns=["site", "receptor", *ACIDITY_KEYS, NUTRIENT_KEY])
+    borrowed = pd.DataFrame([
+        {"site": s.id, "receptor": r,
+         "_borrowed": "the site's critical loads, given for " + s.land_use
+         if r != s.land_use and r not in s.receptor_critical_loads else ""}
+        for s in catalogue for r in s.surfaces], columns=["site", "receptor", "_borrowed"])
+    t = t.merge(loads, on=["site", "receptor"], how="inner").merge(
+        borrowed, on=["site", "receptor"], how="left")
+    s_dep = t["s_dep_eq_ha_yr"].to_numpy(float)
+    n_dep = t["n_dep_eq_ha_yr"].to_numpy(float)
+    ex = acidity_exceedance(s_dep, n_dep, *(t[k].to_numpy(float) for k in ACIDITY_KEYS))
+    t["ex_acidity_eq_ha_yr"] = ex.exceedance
+    t["region"] = ex.region
+    t["ex_nutrient_n_eq_ha_yr"] = nutrient_n_exceedance(n_dep, t[NUTRIENT_KEY].to_numpy(float))
+    t["s_reduction_eq_ha_yr"] = ex.s_reduction
+    t["n_reduction_eq_ha_yr"] = ex.n_reduction
+    t["status"], note = _status(t)
+    basis = getattr(result.options.get("budget"), "sulfate_basis", "nss")
+    sea = "S includes sea-salt sulfate (sulfate_basis = total)" if basis == "total" else ""
+    no_acid = np.where(t[list(ACIDITY_KEYS)].isna().any(axis=1), "no complete acidity function", "")
+    note = _join(note, pd.Series([sea] * len(t), dtype=object), pd.Series(no_acid, dtype=object),
+                 t["_borrowed"])
+    t["note"] = note
+    t = t.rename(columns={k: f"{k}_eq_ha_yr" for k in ACIDITY_KEYS + (NUTRIENT_KEY,)})
+    extra = [f"{k}_eq_ha_yr" for k in ACIDITY_KEYS + (NUTRIENT_KEY,)] + [
+        "s_reduction_eq_ha_yr", "n_reduction_eq_ha_yr", "note"]
+    return t[list(EXCEEDANCE_COLUMNS) + extra].reset_index(drop=True)

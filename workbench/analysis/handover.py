@@ -1,0 +1,149 @@
+"""Tables handed over with a run: precipitation per site and year (depth and
+precipitation-weighted mean concentrations), and data quality per site and year.
+"""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from ..species import SPECIES
+from ..units import convert_plain
+
+#: Wet-chain counts and fractions copied into the quality table (wet Dataset names).
+WET_QUALITY = ("gauge_fraction", "coverage_fraction", "valid_precip_fraction", "n_samples",
+               "n_used", "n_flagged", "n_excluded", "n_dry", "n_gauge_filled")
+
+
+def _frame(ds, names) -> pd.DataFrame:
+    """(site, period) variables of a Dataset as columns of a long table."""
+    out = ds[list(names)].to_dataframe().reset_index()
+    return out[["site", "period"] + list(names)]
+
+
+def precipitation_table(wet) -> pd.DataFrame:
+    """Precipitation depth and precipitation-weighted mean (PWM) concentrations.
+
+    Parameters
+    ----------
+    wet : Dataset
+        The wet chain on (site, period) (``Result.wet`` of a run at calendar years):
+        ``precipitation`` [mm], ``pwm_<ion>`` [mol m-3], ``pH_pwm``, ``status``.
+
+    Returns
+    -------
+    DataFrame
+        site, period, ``precipitation_mm``, ``precipitation_valid_mm`` [mm], one
+        ``pwm_<ion>_ueq_l`` column per ion [ueq L-1] (the charge of the ion from the
+        species table), ``ph_of_pwm_h`` [1], ``status`` and the completeness reasons.
+    """
+    if wet is None:
+        return pd.DataFrame(columns=["site", "period", "precipitation_mm"])
+    ions = [v[4:] for v in wet.data_vars if v.startswith("pwm_") and v[4:] in SPECIES
+            or v.startswith("pwm_nss")]
+    out = _frame(wet, ["precipitation", "precipitation_valid"]).rename(
+        columns={"precipitation": "precipitation_mm", "precipitation_valid": "precipitation_valid_mm"})
+    for ion in ions:
+        base = SPECIES[ion[3:] if ion.startswith("nss") else ion]
+        umol = convert_plain(wet[f"pwm_{ion}"].transpose("site", "period").values, "mol/m3", "umol/L")
+        out[f"pwm_{ion}_ueq_l"] = (umol * base.eq_per_mol).reshape(-1)
+    flat = lambda v: wet[v].transpose("site", "period").values.reshape(-1)  # noqa: E731
+    out["ph_of_pwm_h"] = flat("pH_pwm")
+    out["status"] = flat("status")
+    out["completeness_reasons"] = flat("completeness_reasons")
+    return out
+
+
+def _reasons_by_year(screened) -> pd.DataFrame:
+    """Samples excluded and flagged per site and year, by reason (year of the end)."""
+    if screened is None:
+        return pd.DataFrame(columns=["site", "period", "excluded_by_reason", "flagged_by_reason"])
+    f = pd.DataFrame({"site": screened["site"].values.astype(str),
+                      "period": pd.DatetimeIndex(screened["end"].values - np.timedelta64(1, "s"))
+                      .year.astype(str),
+                      "status": screened["status"].values.astype(str),
+                      "reasons": screened["reasons"].values.astype(str)})
+    keys = ["site", "period"]
+    out = f[keys].drop_duplicates().set_index(keys)
+    for st in ("excluded", "flagged"):
+        g = f[f["status"] == st].assign(reason=lambda d: d["reasons"].replace("", "no reason")
+                                        .str.split("; ")).explode("reason")
+        counts = g.groupby(keys + ["reason"]).size().reset_index(name="n")
+        counts["text"] = counts["reason"] + " (" + counts["n"].astype(str) + ")"
+        out[f"{st}_by_reason"] = counts.groupby(keys)["text"].agg("; ".join) \
+            .reindex(out.index).fillna("")
+    return out.reset_index()
+
+
+def quality_table(years, wet=None, screened=None) -> pd.DataFrame:
+    """``quality.csv``: data quality per site and calendar year.
+
+    Parameters
+    ----------
+    years : Dataset
+        The yearly budget (``Result.years``): ``air_coverage`` and ``vd_coverage`` on
+        (site, receptor, period, component) [1].
+    wet : Dataset, optional
+        The wet chain at calendar years (fractions [1] and sample counts).
+    screened : Dataset, optional
+        The screened samples (status and reasons per sample).
+
+    Returns
+    -------
+    DataFrame
+        site, period; the wet fractions and counts (``wet_`` prefix) and the wet status;
+        samples excluded and flagged by reason (``reason (count)``, by the year in which
+        a sample ends); ``air_coverage_<species>`` [1] (fraction of the year's hours with a
+        concentration) and ``vd_coverage_min`` [1] (the smallest over the site's
+        receptors and species).
+    """
+    sites = years["site"].values.astype(str)
+    periods = years["period"].values.astype(str)
+    out = pd.DataFrame({"site": np.repeat(sites, len(periods)),
+                        "period": np.tile(periods, len(sites))})
+    if wet is not None:
+        w = _frame(wet, WET_QUALITY).rename(columns={k: f"wet_{k}" for k in WET_QUALITY})
+        w["wet_status"] = wet["status"].transpose("site", "period").values.reshape(-1)
+        w["period"] = w["period"].astype(str)
+        out = out.merge(w, on=["site", "period"], how="left")
+    reasons = _reasons_by_year(screened)
+    out = out.merge(reasons, on=["site", "period"], how="left")
+    for col in ("excluded_by_reason", "flagged_by_reason"):
+        out[col] = out[col].fillna("")
+    active = years["active"]
+    dry = years["pathway"].values.astype(str) == "dry"
+    air = years["air_coverage"].isel(component=np.flatnonzero(dry)).where(active)
+    air = air.max("receptor")                      # the same air record for every receptor
+    for i, sp in enumerate(years["species"].values[dry].astype(str)):
+        out[f"air_coverage_{sp}"] = air.isel(component=i).transpose("site", "period").values.reshape(-1)
+    if "vd_coverage" in years:
+        vd = years["vd_coverage"].isel(component=np.flatnonzero(dry)).where(active)
+        out["vd_coverage_min"] = vd.min(["receptor", "component"], skipna=True) \
+            .transpose("site", "period").values.reshape(-1)
+    return out
+
+
+def element_totals(table: pd.DataFrame) -> pd.DataFrame:
+    """Total S and N per site, receptor and period, wide, for ``summary.csv``.
+
+    Parameters
+    ----------
+    table : DataFrame
+        budget.csv rows (``Result.table``).
+
+    Returns
+    -------
+    DataFrame
+        site, receptor, period, ``S_total_kg_ha_yr``, ``S_total_eq_ha_yr``,
+        ``N_total_kg_ha_yr``, ``N_total_eq_ha_yr`` and the two statuses.
+    """
+    tot = table[(table["pathway"] == "total") & (table["species"] == "all")]
+    wide = tot.pivot_table(index=["site", "receptor", "period"], columns="element",
+                           values=["flux_kg_ha_yr", "flux_eq_ha_yr", "status"],
+                           aggfunc="first", sort=False)
+    out = pd.DataFrame(index=wide.index)
+    for el in ("S", "N"):
+        if ("flux_kg_ha_yr", el) in wide:
+            out[f"{el}_total_kg_ha_yr"] = wide[("flux_kg_ha_yr", el)].astype(float)
+            out[f"{el}_total_eq_ha_yr"] = wide[("flux_eq_ha_yr", el)].astype(float)
+            out[f"{el}_total_status"] = wide[("status", el)]
+    return out.reset_index()

@@ -1,0 +1,92 @@
+"""The files the analyses add to a run folder (called by :func:`workbench.writers.write_run`).
+
+``exceedance.csv`` (critical-load exceedance per site, receptor and year, and the span
+mean), ``trends.csv`` (Mann-Kendall and seasonal Kendall trends),
+``precipitation_annual.csv`` (depth and precipitation-weighted means per site and year)
+and ``quality.csv`` (data quality per site and year); each further
+analysis adds its file here, so that the run-folder code calls one function.
+"""
+from __future__ import annotations
+
+from pathlib import Path
+
+#: Float format of the analysis tables (as budget.csv).
+FLOAT_FORMAT = "%.10g"
+
+
+def _csv(frame, path: Path, atomic_write) -> Path:
+    return atomic_write(path, lambda t: frame.to_csv(t, index=False, float_format=FLOAT_FORMAT))
+
+
+def write_analysis(result, study, scenario, out, atomic_write) -> dict:
+    """Write the analysis tables of a run into `out`.
+
+    Parameters
+    ----------
+    result : workbench.pipeline.Result
+    study : workbench.pipeline.Study
+    scenario : workbench.scenario.Scenario or None
+    out : Path
+        The run folder (already prepared).
+    atomic_write : callable
+        ``atomic_write(path, writer)`` of :mod:`workbench.writers`.
+
+    Returns
+    -------
+    dict
+        name -> Path of each file written.
+    """
+    from .exceedance import exceedance_table
+    out = Path(out)
+    written = {}
+    catalogue = study.catalogue()
+    ex = exceedance_table(result, catalogue)
+    written["exceedance.csv"] = _csv(ex, out / "exceedance.csv", atomic_write)
+    year_rows, month_rows = yearly_and_monthly_rows(result, study)
+    from .trends import detection_limit_notes, trend_table
+    tr = trend_table(year_rows, month_rows, detection_limit_notes(study.inputs))
+    written["trends.csv"] = _csv(tr, out / "trends.csv", atomic_write)
+    from .handover import precipitation_table, quality_table
+    wet = yearly_wet(result, study)
+    if wet is not None:
+        written["precipitation_annual.csv"] = _csv(precipitation_table(wet),
+                                                   out / "precipitation_annual.csv", atomic_write)
+    q = quality_table(result.years, wet, result.screened)
+    written["quality.csv"] = _csv(q, out / "quality.csv", atomic_write)
+    return written
+
+
+def yearly_wet(result, study):
+    """The wet chain at calendar years (``Result.wet`` of a yearly run)."""
+    o = result.options
+    if o.get("resolution", "year") == "year" or result.wet is None:
+        return result.wet
+    years = result.years
+    start = str(years["period_start"].values.min())[:19]
+    end = str(years["period_end"].values.max())[:19]
+    return study.wet(o["wet"], study.periods("year", start, end, o["wet"].hydro_start_month))
+
+
+def monthly_result(result, study):
+    """The run at calendar months (the result itself when it is monthly)."""
+    o = result.options
+    if o.get("resolution") == "month":
+        return result
+    start = str(result.years["period_start"].values.min())[:19]
+    end = str(result.years["period_end"].values.max())[:19]
+    return study.run(o.get("wet"), o.get("dry"), o.get("budget"), o.get("fixed_velocity"),
+                     "month", start, end, receptors=o.get("receptors"))
+
+
+def yearly_and_monthly_rows(result, study):
+    """budget.csv rows of calendar years and of calendar months (without the span)."""
+    import warnings
+    from ..tables import budget_table
+    if result.options.get("resolution", "year") == "year":
+        year_rows = result.table[result.table["period"].astype(str) != "span"]
+    else:
+        year_rows = budget_table(result.years)
+    with warnings.catch_warnings():
+        warnings.filterwarnings("ignore", "All-NaN slice encountered", RuntimeWarning)
+        month_rows = budget_table(monthly_result(result, study).budget)
+    return year_rows, month_rows

@@ -1,0 +1,347 @@
+"""Trends over the years: Mann-Kendall with Sen's slope on annual values, and the
+seasonal Kendall test on monthly values with the Hirsch and Slack (1984) correction for
+serial dependence among the seasons.
+
+The statistics are vectorized over the pairs of values (broadcast differences); a
+study has tens of series, each of tens of years, so the loop over series stays small.
+"""
+from __future__ import annotations
+
+import math
+from statistics import NormalDist
+from typing import NamedTuple
+
+import numpy as np
+
+#: Fewest complete years for a trend to be called valid.  The normal approximation of
+#: the Mann-Kendall statistic is used from n = 10 on (Gilbert 1987, Statistical Methods
+#: for Environmental Pollution Monitoring, ch. 16, which gives exact tables below that;
+#: from memory), and trend assessments of deposition networks commonly ask for ten
+#: years or more (common practice).
+MIN_YEARS = 10
+#: Two-sided significance level of the slope's confidence band [1].
+ALPHA = 0.05
+
+
+class TrendResult(NamedTuple):
+    """One trend test.  Slopes in the series' unit per year."""
+
+    n: int                 #: values used (annual) or years with a value (seasonal) [1]
+    s: float               #: Mann-Kendall score S [1]
+    var_s: float           #: variance of S (ties; Hirsch-Slack covariances if asked) [1]
+    z: float               #: standard normal score (continuity-corrected) [1]
+    p_value: float         #: two-sided p [1]
+    tau: float             #: Kendall's tau, S / number of pairs [1]
+    slope: float           #: Sen's slope [unit yr-1]
+    slope_low: float       #: lower end of its 1 - ALPHA confidence interval [unit yr-1]
+    slope_high: float      #: upper end [unit yr-1]
+    intercept: float       #: median(x) - slope median(t) [unit]
+
+
+def _pairs(x, t):
+    """Sign of differences and slopes of all pairs i < j with both values present."""
+    i, j = np.triu_indices(len(x), 1)
+    ok = ~(np.isnan(x[i]) | np.isnan(x[j]))
+    i, j = i[ok], j[ok]
+    dx, dt = x[j] - x[i], t[j] - t[i]
+    return np.sign(dx), dx / dt
+
+
+def _tie_variance(x) -> float:
+    """Var(S) without serial dependence, corrected for ties (Kendall 1975; Gilbert 1987,
+    eq. 16.4): [n(n-1)(2n+5) - sum_p t_p(t_p-1)(2t_p+5)] / 18."""
+    x = x[~np.isnan(x)]
+    n = x.size
+    _, tp = np.unique(x, return_counts=True)
+    return float((n * (n - 1) * (2 * n + 5) - np.sum(tp * (tp - 1) * (2 * tp + 5))) / 18.0)
+
+
+def _z(s, var_s) -> float:
+    """Continuity-corrected normal score (S - sgn S) / sqrt(Var S) (Gilbert 1987, eq. 16.5)."""
+    if var_s <= 0 or s == 0:
+        return 0.0
+    return float((s - np.sign(s)) / math.sqrt(var_s))
+
+
+def _p(z) -> float:
+    """Two-sided p of a standard normal score."""
+    return float(math.erfc(abs(z) / math.sqrt(2.0)))
+
+
+def _slope_interval(slopes, var_s, alpha):
+    """Confidence interval of Sen's slope (Gilbert 1987, eqs. 6.7-6.9, from memory):
+    C = z_{1-alpha/2} sqrt(Var S), M1 = (N' - C)/2, M2 = (N' + C)/2; the interval is the
+    M1-th and (M2 + 1)-th largest of the N' ordered slopes (interpolated)."""
+    m = slopes.size
+    if m == 0:
+        return np.nan, np.nan
+    q = np.sort(slopes)
+    c = NormalDist().inv_cdf(1.0 - alpha / 2.0) * math.sqrt(max(var_s, 0.0))
+    ranks = np.arange(1, m + 1)
+    low = np.interp((m - c) / 2.0, ranks, q)
+    high = np.interp((m + c) / 2.0 + 1.0, ranks, q)
+    return float(low), float(high)
+
+
+def mann_kendall(x, t=None, alpha=ALPHA) -> TrendResult:
+    """Mann-Kendall test and Sen's slope of one series.
+
+    Parameters
+    ----------
+    x : array_like
+        Values [any unit]; NaN marks a missing value (left out).
+    t : array_like, optional
+        Times [yr] (default 0, 1, 2, ...).
+    alpha : float
+        Two-sided level of the slope's confidence interval [1].
+
+    Returns
+    -------
+    TrendResult
+
+    References
+    ----------
+    Mann (1945) Econometrica 13, 245; Kendall (1975) Rank Correlation Methods; Sen (1968)
+    J. Am. Stat. Assoc. 63, 1379; Gilbert (1987) Statistical Methods for Environmental
+    Pollution Monitoring, ch. 16.
+
+    >>> r = mann_kendall([1.0, 2.0, 3.0, 4.0, 6.0])
+    >>> r.s, r.slope
+    (10.0, 1.0)
+    """
+    x = np.asarray(x, float)
+    t = np.arange(x.size, dtype=float) if t is None else np.asarray(t, float)
+    sign, slopes = _pairs(x, t)
+    n = int(np.sum(~np.isnan(x)))
+    s = float(sign.sum())
+    var_s = _tie_variance(x)
+    z = _z(s, var_s)
+    slope = float(np.median(slopes)) if slopes.size else np.nan
+    lo, hi = _slope_interval(slopes, var_s, alpha)
+    ok = ~np.isnan(x)
+    icpt = float(np.median(x[ok]) - slope * np.median(t[ok])) if n else np.nan
+    return TrendResult(n, s, var_s, z, _p(z), s / (n * (n - 1) / 2) if n > 1 else np.nan,
+                       slope, lo, hi, icpt)
+
+
+def hirsch_slack_covariance(x) -> np.ndarray:
+    """Covariances of the Mann-Kendall scores of the seasons, over the same years.
+
+    Parameters
+    ----------
+    x : ndarray, shape (years, seasons)
+        Values [any unit]; NaN missing.
+
+    Returns
+    -------
+    ndarray, shape (seasons, seasons)
+        :math:`\\mathrm{cov}(S_g, S_h) = [K_{gh} + 4 \\sum_i R_{ig} R_{ih} - n(n+1)^2] / 3`
+        with :math:`K_{gh} = \\sum_{i<j} \\mathrm{sgn}[(x_{jg} - x_{ig})(x_{jh} - x_{ih})]`
+        and ranks :math:`R_{ig} = (n + 1 + \\sum_j \\mathrm{sgn}(x_{ig} - x_{jg}))/2`, a
+        missing value getting :math:`(n+1)/2` and counting in no pair (Hirsch and Slack
+        1984, Water Resour. Res. 20, 727; from memory).  With the centred ranks
+        :math:`c_{ig} = \\sum_j \\mathrm{sgn}(x_{ig} - x_{jg})` this is
+        :math:`(K_{gh} + \\sum_i c_{ig} c_{ih}) / 3`; its diagonal is the tie-corrected
+        variance of each season's score.
+    """
+    x = np.asarray(x, float)
+    d = np.sign(x[:, None, :] - x[None, :, :])           # d[i, j, g] = sgn(x_ig - x_jg)
+    d = np.nan_to_num(d, nan=0.0)
+    k = 0.5 * np.einsum("ijg,ijh->gh", d, d)                # pairs i < j (d antisymmetric)
+    c = d.sum(axis=1)                                       # (years, seasons)
+    return (k + c.T @ c) / 3.0
+
+
+def seasonal_kendall(x, years=None, correct=True, alpha=ALPHA) -> TrendResult:
+    """Seasonal Kendall test and seasonal Sen slope.
+
+    Parameters
+    ----------
+    x : array_like, shape (years, seasons)
+        Values [any unit]; NaN missing.  Seasons are usually the 12 months.
+    years : array_like, optional
+        The years of the rows [yr] (default 0, 1, ...).
+    correct : bool
+        Add the covariances of the seasons' scores (Hirsch and Slack 1984), so that the
+        test holds under serial dependence; without, the seasons count as independent
+        (Hirsch, Slack and Smith 1982).
+    alpha : float
+        Two-sided level of the slope's confidence interval [1].
+
+    Returns
+    -------
+    TrendResult
+        ``n`` is the number of years with at least one value; the slope is the median
+        of the within-season slopes [unit yr-1].
+
+    References
+    ----------
+    Hirsch, R.M., Slack, J.R., Smith, R.A. (1982) Water Resour. Res. 18, 107-121.
+    Hirsch, R.M., Slack, J.R. (1984) Water Resour. Res. 20, 727-732.
+    """
+    x = np.asarray(x, float)
+    n_years, n_seasons = x.shape
+    t = np.arange(n_years, dtype=float) if years is None else np.asarray(years, float)
+    signs, slopes = [], []
+    for g in range(n_seasons):                     # a dozen seasons, not a loop over time
+        sg, sl = _pairs(x[:, g], t)
+        signs.append(sg.sum())
+        slopes.append(sl)
+    s = float(np.sum(signs))
+    cov = hirsch_slack_covariance(x)
+    var_s = float(cov.sum() if correct else np.trace(cov))
+    z = _z(s, var_s)
+    slopes = np.concatenate(slopes) if slopes else np.array([])
+    slope = float(np.median(slopes)) if slopes.size else np.nan
+    lo, hi = _slope_interval(slopes, var_s, alpha)
+    counts = np.sum(~np.isnan(x), axis=0)
+    pairs = float(np.sum(counts * (counts - 1) / 2))
+    ok = ~np.isnan(x)
+    tt = np.broadcast_to(t[:, None], x.shape)
+    icpt = float(np.median(x[ok]) - slope * np.median(tt[ok])) if ok.any() else np.nan
+    return TrendResult(int(np.sum(ok.any(axis=1))), s, var_s, z, _p(z),
+                       s / pairs if pairs else np.nan, slope, lo, hi, icpt)
+
+
+# ------------------------------------------------------------------ the table of a run
+TREND_COLUMNS = ("site", "receptor", "element", "pathway", "species", "series", "n_years",
+                 "first_year", "last_year", "test", "tau", "p_value", "sen_slope_per_yr",
+                 "sen_slope_pct_per_yr", "valid", "note")
+#: Statuses of a year (or month) whose value enters a trend, per variant of the values.
+VARIANTS = {"all": ("complete", "filled"), "without_filled": ("complete",)}
+KEYS = ["site", "receptor", "element", "pathway", "species"]
+#: Species of each (element, pathway) pair, for the detection-limit notes of the sums.
+_SPECIES_OF = {("S", "wet"): ("SO4",), ("S", "dry"): ("SO2", "pSO4"),
+               ("N", "wet"): ("NO3", "NH4"), ("N", "dry"): ("HNO3", "pNO3", "pNH4", "NH3", "NO2")}
+
+
+def detection_limit_notes(inputs) -> dict:
+    """(site, species) -> a note where the detection limit of a species changed.
+
+    A detection limit is known where a value was written as ``<DL``; the note names the
+    years in which the set of limits seen differs from the year before.
+    """
+    import pandas as pd
+    notes = {}
+    for ds in (getattr(inputs, "precipitation", None), getattr(inputs, "air", None)):
+        if ds is None:
+            continue
+        year = pd.DatetimeIndex(ds["start"].values).year.to_numpy()
+        site = ds["site"].values.astype(str)
+        for v in ds.data_vars:
+            if not v.endswith("_detection_limit"):
+                continue
+            a = ds[v].values
+            ok = ~np.isnan(a)
+            if not ok.any():
+                continue
+            f = pd.DataFrame({"site": site[ok], "year": year[ok],
+                              "dl": np.round(a[ok] / np.nanmax(a[ok]), 6)})
+            for s, g in f.groupby("site"):
+                sets = g.groupby("year")["dl"].apply(lambda d: tuple(sorted(set(d))))
+                if len(set(sets)) > 1:
+                    changed = [int(y) for y, prev, cur in zip(sets.index[1:], sets.values[:-1],
+                                                             sets.values[1:]) if prev != cur]
+                    sp = v[: -len("_detection_limit")]
+                    notes[(s, sp)] = (f"detection limit of {sp} changed (years with a new "
+                                      f"set of limits: {' '.join(map(str, changed))})")
+    return notes
+
+
+def _dl_note(notes, site, element, pathway, species):
+    if species != "all":
+        names = (species,)
+    elif pathway == "total":
+        names = _SPECIES_OF[(element, "wet")] + _SPECIES_OF[(element, "dry")]
+    else:
+        names = _SPECIES_OF.get((element, pathway), ())
+    return "; ".join(notes[(site, n)] for n in names if (site, n) in notes)
+
+
+def _row(key, series, variant, years, r, min_years, median, excluded, dl):
+    valid = r.n >= min_years
+    note = [f"values: {variant.replace('_', ' ')}"]
+    if not valid:
+        note.append(f"fewer than {min_years} complete years")
+    if excluded:
+        note.append(excluded)
+    if dl:
+        note.append(dl)
+    pct = 100.0 * r.slope / median if median and np.isfinite(median) and median != 0 else np.nan
+    return {**dict(zip(KEYS, key)), "series": series, "n_years": r.n,
+            "first_year": int(min(years)) if len(years) else None,
+            "last_year": int(max(years)) if len(years) else None,
+            "test": "mann_kendall" if series == "annual" else "seasonal_kendall_hirsch_slack",
+            "tau": r.tau, "p_value": r.p_value, "sen_slope_per_yr": r.slope,
+            "sen_slope_pct_per_yr": pct, "valid": bool(valid), "note": "; ".join(note),
+            "values": variant, "s": r.s, "var_s": r.var_s, "z": r.z,
+            "slope_low_per_yr": r.slope_low, "slope_high_per_yr": r.slope_high,
+            "intercept": r.intercept, "unit": "kg ha-1 yr-1"}
+
+
+def trend_table(year_rows, month_rows=None, dl_notes=None, min_years=MIN_YEARS,
+                alpha=ALPHA):
+    """``trends.csv``: a trend per site, receptor, element, pathway and species.
+
+    Parameters
+    ----------
+    year_rows : DataFrame
+        budget.csv rows of calendar years (:func:`workbench.tables.budget_table` of
+        ``Result.years``): ``flux_kg_ha_yr`` [kg ha-1 yr-1] and ``status``.
+    month_rows : DataFrame, optional
+        The same for calendar months (seasonal Kendall test on them).
+    dl_notes : dict, optional
+        :func:`detection_limit_notes`.
+    min_years : int
+        Fewest complete years of a valid trend (:data:`MIN_YEARS`).
+
+    Returns
+    -------
+    DataFrame
+        :data:`TREND_COLUMNS`, then ``values`` (``all`` or ``without_filled``), S,
+        Var(S), z, the slope's confidence interval, the intercept and the unit.  A year
+        enters when its status is complete (or filled, for ``all``); the note counts the
+        years left out by status.
+    """
+    import pandas as pd
+    dl_notes = dl_notes or {}
+    rows = []
+    y = year_rows[year_rows["period"].astype(str) != "span"].copy()
+    y["year"] = pd.DatetimeIndex(y["period_start"]).year
+    for key, g in y.groupby(KEYS, sort=False):
+        g = g.sort_values("year")
+        years = g["year"].to_numpy()
+        x = g["flux_kg_ha_yr"].to_numpy(float)
+        status = g["status"].astype(str).to_numpy()
+        dl = _dl_note(dl_notes, *key[:1], *key[2:])
+        for variant, keep in VARIANTS.items():
+            use = np.isin(status, keep) & np.isfinite(x)
+            left = pd.Series(status[~use]).value_counts()
+            excluded = ("years left out: " + ", ".join(f"{n} {s}" for s, n in left.items())
+                        if len(left) else "")
+            r = mann_kendall(np.where(use, x, np.nan), years.astype(float), alpha)
+            rows.append(_row(key, "annual", variant, years[use], r, min_years,
+                             np.median(x[use]) if use.any() else np.nan, excluded, dl))
+    if month_rows is not None and len(month_rows):
+        m = month_rows[month_rows["period"].astype(str) != "span"].copy()
+        ps = pd.DatetimeIndex(m["period_start"])
+        m["year"], m["month"] = ps.year, ps.month
+        for key, g in m.groupby(KEYS, sort=False):
+            dl = _dl_note(dl_notes, *key[:1], *key[2:])
+            for variant, keep in VARIANTS.items():
+                ok = g["status"].astype(str).isin(keep) & np.isfinite(g["flux_kg_ha_yr"])
+                grid = g[ok].pivot_table(index="year", columns="month", values="flux_kg_ha_yr")
+                grid = grid.reindex(columns=range(1, 13))
+                full_years = sorted(set(g["year"]))
+                grid = grid.reindex(full_years)
+                r = seasonal_kendall(grid.to_numpy(float), np.asarray(full_years, float),
+                                     True, alpha)
+                used = grid.index[grid.notna().any(axis=1)].to_numpy()
+                n_out = int((~ok).sum())
+                rows.append(_row(key, "monthly", variant, used, r, min_years,
+                                 float(np.nanmedian(grid.to_numpy())) if used.size else np.nan,
+                                 f"{n_out} months left out by status" if n_out else "", dl))
+    out = pd.DataFrame(rows)
+    if out.empty:
+        return pd.DataFrame(columns=list(TREND_COLUMNS))
+    return out

@@ -1,0 +1,180 @@
+"""The critical-loads explorer: a site's deposition against its critical load function,
+and what-if cuts of S, oxidized N and reduced N (see :mod:`workbench.analysis.whatif`).
+"""
+from __future__ import annotations
+
+import html
+
+import ipywidgets as widgets
+import numpy as np
+
+from ..analysis.exceedance import REGIONS, acidity_exceedance, nutrient_n_exceedance
+from ..analysis.whatif import GROUP_TEXT, GROUPS, MODES, group_deposition, path_table, plain_statement
+from .controls import Progress, caution_box, figure_widget, open_with_progress, refresh, table_html
+from .figures_analysis import clf_spec
+from .session import Session
+
+#: Cuts when the explorer opens [1].
+FIRST_CUTS = {"S": 0.5, "NOx": 0.5, "NHx": 0.5}
+#: Columns of the path shown under the figure.
+PATH_COLUMNS = ("fraction", "cut_S", "cut_NOx", "cut_NHx", "s_dep_eq_ha_yr", "n_dep_eq_ha_yr",
+                "ex_acidity_eq_ha_yr", "ex_nutrient_n_eq_ha_yr")
+
+
+class CriticalLoadsExplorer(widgets.VBox):
+    """One site, receptor and year against the critical load function, with a what-if path.
+
+    Attributes
+    ----------
+    parts : xarray.Dataset
+        Wet and dry deposition of S, oxidized and reduced N [eq ha-1 yr-1] per year.
+    path : pandas.DataFrame
+        The last path (:func:`workbench.analysis.whatif.path_table`).
+    statement : str
+        The last plain statement of what the cuts do.
+    fig : plotly.graph_objects.FigureWidget
+    """
+
+    @classmethod
+    def from_scenario(cls, scenario_path, **kw) -> "CriticalLoadsExplorer":
+        return open_with_progress(cls, scenario_path, **kw)
+
+    def __init__(self, session: Session, site=None, years=None, progress=None):
+        self.session = session
+        first, last = session.years
+        self.years = tuple(years) if years else (first, last)
+        self.progress = progress or Progress()
+        site = site or session.sites[0]
+        self.site_w = widgets.Dropdown(options=session.sites, value=site, description="site")
+        self.receptor_w = widgets.Dropdown(options=session.receptors(site), description="receptor")
+        self.year_w = widgets.Dropdown(options=[], description="year")
+        pct = dict(min=0, max=100, step=5, continuous_update=False, style={"description_width": "150px"},
+                   layout=widgets.Layout(width="420px"))
+        self.cut_w = {g: widgets.IntSlider(value=int(100 * FIRST_CUTS[g]),
+                                           description=f"cut {GROUP_TEXT[g]} [%]", **pct)
+                      for g in GROUPS}
+        self.mode_w = widgets.RadioButtons(options=[(v, k) for k, v in MODES.items()],
+                                           value="air_and_wet", description="what is cut",
+                                           layout=widgets.Layout(width="auto"))
+        self.text_w = widgets.HTML("")
+        self.table_w = widgets.HTML("")
+        self.fig = figure_widget(clf_spec({}))
+        self.site_w.observe(self._on_site, "value")
+        for w in (self.receptor_w, self.year_w, self.mode_w, *self.cut_w.values()):
+            w.observe(lambda c: self.draw(), "value")
+        super().__init__([widgets.HTML("<h3>Critical loads and what-if cuts</h3>"), caution_box(),
+                          widgets.HBox([self.site_w, self.receptor_w, self.year_w]),
+                          widgets.HBox([widgets.VBox(list(self.cut_w.values())), self.mode_w]),
+                          self.progress, self.text_w, self.fig, self.table_w])
+        self._load()
+
+    def _on_site(self, change):
+        self.receptor_w.unobserve_all("value")
+        self.receptor_w.options = self.session.receptors(self.site_w.value)
+        self.receptor_w.value = self.receptor_w.options[0]
+        self.receptor_w.observe(lambda c: self.draw(), "value")
+        self._load()
+
+    def _load(self):
+        """Run the site's yearly budget and split it into the groups that can be cut."""
+        self.progress.start(f"budget of {self.site_w.value}")
+        result = self.session.run(self.session.baseline, self.site_w.value, *self.years,
+                                  resolution="year")
+        self.parts = group_deposition(result.years)
+        labels = [str(p) for p in self.parts["period"].values]
+        self.year_w.unobserve_all("value")
+        self.year_w.options = labels
+        self.year_w.value = labels[-1]
+        self.year_w.observe(lambda c: self.draw(), "value")
+        self.progress.done("ready")
+        self.draw()
+
+    def loads(self) -> dict:
+        site = self.session.study.catalogue()[self.site_w.value]
+        return site.critical_loads_for(self.receptor_w.value)
+
+    def draw(self):
+        """Recompute the path and redraw."""
+        sel = {"site": self.site_w.value, "receptor": self.receptor_w.value,
+               "period": self.year_w.value}
+        parts = {k: float(v) for k, v in self.parts.sel(sel).data_vars.items()}
+        loads = self.loads()
+        cuts = {g: w.value / 100.0 for g, w in self.cut_w.items()}
+        mode = self.mode_w.value
+        where = " · ".join(sel.values())
+        if not all(k in loads for k in ("cl_max_s", "cl_min_n", "cl_max_n")):
+            self.statement = f"{where}: no complete critical load function in sites.toml."
+            self.path = None
+            refresh(self.fig, clf_spec(loads, title=where))
+            self.text_w.value = f"<p>{html.escape(self.statement)}</p>"
+            self.table_w.value = ""
+            return self.statement
+        self.path = path_table(parts, cuts, {"cl_nut_n": np.nan, **loads}, mode)
+        first = self.path.iloc[0]
+        ex = acidity_exceedance(first["s_dep_eq_ha_yr"], first["n_dep_eq_ha_yr"],
+                                loads["cl_max_s"], loads["cl_min_n"], loads["cl_max_n"])
+        nut = nutrient_n_exceedance(first["n_dep_eq_ha_yr"], loads.get("cl_nut_n", np.nan))
+        self.statement = plain_statement(parts, cuts, {"cl_nut_n": np.nan, **loads}, mode, where)
+        self.text_w.value = (
+            f"<p>Deposition S {first['s_dep_eq_ha_yr']:.0f}, N {first['n_dep_eq_ha_yr']:.0f} "
+            f"eq/ha/yr: acidity exceedance {float(ex.exceedance):.0f} eq/ha/yr "
+            f"({html.escape(REGIONS[int(ex.region)])}); nutrient-N exceedance "
+            f"{float(nut):.0f} eq/ha/yr.</p><p><b>{html.escape(self.statement)}</b></p>")
+        refresh(self.fig, clf_spec(loads, first["s_dep_eq_ha_yr"], first["n_dep_eq_ha_yr"],
+                                   self.path, where, MODES[mode]))
+        self.table_w.value = table_html(self.path[list(PATH_COLUMNS)])
+        return self.statement
+
+
+def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":
+    """Trend and exceedance columns of the network overview, per site on its own surface.
+
+    Parameters
+    ----------
+    results : dict
+        site -> ``Result`` of a yearly run of that site.
+    catalogue : SiteCatalogue
+        The sites (own land use and critical loads).
+
+    Returns
+    -------
+    DataFrame
+        site, receptor; ``S_trend`` and ``N_trend`` (Sen slope of the annual totals
+        [kg ha-1 yr-1 per yr], with p and "not valid" when fewer than the minimum of
+        complete years); the span's ``ex_acidity_eq_ha_yr``, ``ex_nutrient_n_eq_ha_yr``
+        and ``exceedance_status``.
+    """
+    import pandas as pd
+
+    from ..analysis.exceedance import exceedance_table
+    from ..analysis.trends import trend_table
+    rows = []
+    for site, res in results.items():
+        own = catalogue[site].land_use
+        row = {"site": site, "receptor": own}
+        years = res.table[(res.table["period"].astype(str) != "span")
+                          & (res.table["receptor"] == own) & (res.table["pathway"] == "total")
+                          & (res.table["species"] == "all")]
+        tr = trend_table(years)
+        tr = tr[tr["values"] == "all"] if len(tr) else tr
+        for el in ("S", "N"):
+            t = tr[tr["element"] == el] if len(tr) else tr
+            if len(t):
+                r = t.iloc[0]
+                row[f"{el}_trend"] = (f"{r['sen_slope_per_yr']:+.3g} per yr (p {r['p_value']:.2g}"
+                                      + ("" if r["valid"] else f", not valid: {r['n_years']} years")
+                                      + ")")
+            else:
+                row[f"{el}_trend"] = "–"
+        ex = exceedance_table(res, catalogue)
+        ex = ex[(ex["site"] == site) & (ex["receptor"] == own) & (ex["period"] == "span")]
+        if len(ex):
+            e = ex.iloc[0]
+            row.update(ex_acidity_eq_ha_yr=e["ex_acidity_eq_ha_yr"],
+                       ex_nutrient_n_eq_ha_yr=e["ex_nutrient_n_eq_ha_yr"],
+                       exceedance_status=e["status"])
+        else:
+            row.update(ex_acidity_eq_ha_yr=np.nan, ex_nutrient_n_eq_ha_yr=np.nan,
+                       exceedance_status="no critical loads")
+        rows.append(row)
+    return pd.DataFrame(rows)

@@ -1,0 +1,72 @@
+"""Export of any figure of the workbench to PNG, SVG or a self-contained HTML file.
+
+PNG and SVG go through plotly's static-image export (kaleido 1.x, which drives a
+Chrome or Chromium already installed; install with ``pip install "deposition-workbench[export]"``).
+HTML needs nothing more: plotly.js is written into the file, so it opens offline.
+"""
+from __future__ import annotations
+
+from pathlib import Path
+
+import plotly.graph_objects as go
+
+from ..errors import WorkbenchError
+from .figures import from_spec
+
+#: Formats by file suffix.
+FORMATS = ("png", "svg", "html")
+#: Size of an exported image [px] and the scale of a PNG (2: sharp on print) [1].
+WIDTH, HEIGHT, PNG_SCALE = 900, 520, 2
+
+
+class ExportError(WorkbenchError):
+    """A figure cannot be written in the format asked for."""
+
+
+def export_figure(fig, path, width=WIDTH, height=HEIGHT) -> Path:
+    """Write a figure (a plotly Figure or a ``*_spec`` dict) to `path`.
+
+    Parameters
+    ----------
+    fig : plotly.graph_objects.Figure or dict
+    path : str or Path
+        Its suffix chooses the format: ``.png``, ``.svg`` or ``.html``.
+    width, height : int
+        Size of a PNG or SVG [px].
+
+    Returns
+    -------
+    Path
+
+    Raises
+    ------
+    ExportError
+        For an unknown suffix, or when PNG/SVG export cannot run (kaleido not installed,
+        or no Chrome/Chromium found); the message suggests ``.html``, which always works.
+    """
+    path = Path(path)
+    fmt = path.suffix.lower().lstrip(".")
+    if fmt not in FORMATS:
+        raise ExportError(f"cannot export a figure to {path.name}: expected a file name ending "
+                          f"in {', '.join('.' + f for f in FORMATS)}")
+    if isinstance(fig, dict):
+        fig = from_spec(fig)
+    elif not isinstance(fig, go.Figure):
+        fig = go.Figure(fig)
+    if fmt == "html":
+        fig.write_html(path, include_plotlyjs="inline", full_html=True)
+        return path
+    try:
+        import kaleido  # noqa: F401
+    except ImportError as exc:
+        raise ExportError(f"{fmt.upper()} export needs kaleido (pip install "
+                          "'deposition-workbench[export]') and a Chrome or Chromium; "
+                          f"write {path.with_suffix('.html').name} instead") from exc
+    try:
+        fig.write_image(path, format=fmt, width=width, height=height,
+                        scale=PNG_SCALE if fmt == "png" else 1)
+    except Exception as exc:           # kaleido reports a missing browser in many ways
+        raise ExportError(f"{fmt.upper()} export failed ({type(exc).__name__}: {exc}); "
+                          "kaleido needs a Chrome or Chromium on this machine; write "
+                          f"{path.with_suffix('.html').name} instead") from exc
+    return path
