@@ -134,7 +134,9 @@ def cmd_demo(args) -> int:
 
 def cmd_sensitivity(args) -> int:
     from .analysis.sensitivity import write_sensitivity
-    written = write_sensitivity(args.scenario, args.out, args.overwrite, args.quiet)
+    from .scenario import load_scenario
+    written = write_sensitivity(load_scenario(args.scenario), args.out, args.overwrite,
+                                args.quiet)
     print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
     for name in written:
         print(f"  {name}")

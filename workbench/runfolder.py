@@ -21,6 +21,7 @@ import os
 import shutil
 import socket
 import sys
+import tempfile
 from pathlib import Path
 
 from .errors import WorkbenchError
@@ -75,6 +76,30 @@ def siblings(out: Path) -> dict:
     return {"lock": out.parent / f".{out.name}.lock",
             "incomplete": out.parent / f".{out.name}.incomplete",
             "replaced": out.parent / f".{out.name}.replaced"}
+
+
+def atomic_write(path: Path, writer) -> Path:
+    """Write via a temporary file in the same folder, then rename over `path`.
+
+    Parameters
+    ----------
+    path : Path
+    writer : callable
+        Called with the temporary path; writes the content there.
+    """
+    path = Path(path)
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    os.close(fd)
+    try:
+        writer(Path(tmp))
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)  # mkstemp makes 0600; give the usual file mode
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+    return path
 
 
 def check_out_dir(out: Path, inputs: dict, overwrite: bool = False) -> Path:

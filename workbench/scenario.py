@@ -50,7 +50,7 @@ def option_sections() -> dict:
     """Scenario sections built from the options dataclasses: name -> dataclass."""
     from .budget import BudgetOptions
     from .drydep import DryOptions
-    from .analysis.sensitivity import SensitivityOptions
+    from .analysis.sensitivity_options import SensitivityOptions
     from .analysis.uncertainty import UncertaintyOptions
     from .wet import WetOptions
     return {"wet": WetOptions, "dry": DryOptions, "budget": BudgetOptions,
@@ -527,7 +527,7 @@ def scenario_dict(inputs: dict, period=None, options=None, fixed_velocity=None,
 def save_scenario(path, **kwargs) -> Path:
     """Write :func:`scenario_dict` (same keyword arguments) as TOML, atomically."""
     import tomli_w
-    from .writers import atomic_write
+    from .runfolder import atomic_write
     path = Path(path)
     data = scenario_dict(base=path.parent.resolve(), **kwargs)
     text = "# Scenario written by the deposition workbench\n" + tomli_w.dumps(data)

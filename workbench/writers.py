@@ -8,42 +8,17 @@ from __future__ import annotations
 import datetime as _dt
 import hashlib
 import json
-import os
-import tempfile
 from pathlib import Path
 
 import numpy as np
 import xarray as xr
 
 from . import __version__
-from .runfolder import OutputError, RunFolder, check_out_dir, os_error_message
+from .runfolder import (OutputError, RunFolder, atomic_write, check_out_dir,  # noqa: F401
+                        os_error_message)
 from .tables import BUDGET_COLUMNS, summary_table
 
 __all__ = ["OUTPUT_STEPS", "OutputError", "RunFolder", "atomic_write", "write_run"]
-
-
-def atomic_write(path: Path, writer) -> Path:
-    """Write via a temporary file in the same folder, then rename over `path`.
-
-    Parameters
-    ----------
-    path : Path
-    writer : callable
-        Called with the temporary path; writes the content there.
-    """
-    path = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    os.close(fd)
-    try:
-        writer(Path(tmp))
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)  # mkstemp makes 0600; give the usual file mode
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
-    return path
 
 
 def sha256(path) -> str:

@@ -29,110 +29,9 @@ import pandas as pd
 
 from ..budget import PARTICLES
 from .layer import DRY_SPECIES, linear_layer
+from .sensitivity_options import (LINEAR, OUTPUTS, WETNESS, SensitivityOptions,  # noqa: F401
+                                  _default_factors, factor_kind)
 from .uncertainty import DEFAULT_VD_GSD, SiteNoise, component_draws, totals_of
-
-#: The outputs: (element, quantity, key of :func:`totals_of`) [mol m-2; eq ha-1 for acidity].
-OUTPUTS = (("S", "wet", "S_wet"), ("S", "dry", "S_dry"), ("S", "total", "S_total"),
-           ("N", "wet", "N_wet"), ("N", "dry", "N_dry"), ("N", "total", "N_total"),
-           ("S+N", "potential_acidity", "potential_acidity"))
-LINEAR = ("gauge_catch", "precip_conc", "air_conc") + tuple(f"vd_{sp}" for sp in DRY_SPECIES)
-WETNESS = ("met", "inferred", "always_dry", "always_wet")
-
-
-def _default_factors() -> dict:
-    """Vd multipliers over +-1 GSD of the Monte Carlo defaults (Flechard et al. 2011, from
-    memory), +-10 % for gauge catch and the two concentration calibrations (common
-    practice, from memory)."""
-    out = {f"vd_{sp}": (round(1 / g, 3), g) for sp, g in DEFAULT_VD_GSD.items()}
-    out.update({"gauge_catch": (0.9, 1.1), "precip_conc": (0.9, 1.1), "air_conc": (0.9, 1.1)})
-    return out
-
-
-@dataclass(frozen=True)
-class SensitivityOptions:
-    """The global sensitivity analysis (scenario section ``[sensitivity]``).
-
-    Attributes
-    ----------
-    samples : int
-        Base sample N of Saltelli's scheme (a power of 2); N (k + 2) model runs for k
-        factors.  64 (common practice: enough for the ranking of ~10 factors; the
-        confidence intervals say when it is not).
-    seed : int
-        Seed of the Sobol sequence's scrambling and of the bootstrap.
-    factors : dict
-        factor name -> [low, high] (a uniform range) or, for ``wetness_rule``, a list
-        of rules.  Default: the Vd of every dry species over +-1 GSD of the
-        ``[uncertainty]`` defaults, gauge catch and the concentrations +-10 %.
-    sites : list
-        Sites to analyse (empty: every site).
-    receptors : list
-        Receptor surfaces (empty: every active one).
-    """
-
-    samples: int = 64
-    seed: int = 12345
-    factors: dict = field(default_factory=_default_factors)
-    sites: tuple = ()
-    receptors: tuple = ()
-
-    def __post_init__(self):
-        for name in ("samples", "seed"):
-            v = getattr(self, name)
-            if isinstance(v, bool) or int(v) != v or v < 0:
-                raise ValueError(f"SensitivityOptions.{name} = {v!r} must be an integer >= 0")
-            object.__setattr__(self, name, int(v))
-        if self.samples < 2 or self.samples & (self.samples - 1):
-            raise ValueError(f"SensitivityOptions.samples = {self.samples} must be a power of 2")
-        if len(self.factors) < 2:
-            raise ValueError("SensitivityOptions.factors needs at least 2 factors")
-        for name, rng in self.factors.items():
-            kind = factor_kind(name)
-            if kind == "wetness_rule":
-                bad = [r for r in rng if r not in WETNESS]
-                if bad or len(rng) < 2:
-                    raise ValueError(f"SensitivityOptions.factors.wetness_rule: {list(rng)} "
-                                     f"must list 2 or more of {WETNESS}")
-                continue
-            if (len(rng) != 2 or not all(isinstance(v, (int, float)) for v in rng)
-                    or not 0 <= rng[0] < rng[1]):
-                raise ValueError(f"SensitivityOptions.factors.{name} = {list(rng)} must be "
-                                 "[low, high] with 0 <= low < high")
-            if kind == "fine_fraction" and rng[1] > 1:
-                raise ValueError(f"SensitivityOptions.factors.{name}: a fraction is at most 1")
-
-    @classmethod
-    def from_dict(cls, given: dict) -> "SensitivityOptions":
-        given = dict(given)
-        if "factors" in given:
-            given["factors"] = {k: tuple(v) for k, v in given["factors"].items()}
-        for k in ("sites", "receptors"):
-            if k in given:
-                given[k] = tuple(given[k])
-        return cls(**given)
-
-    def to_dict(self) -> dict:
-        return asdict(self)
-
-
-def factor_kind(name: str) -> str:
-    """``linear``, ``wetness_rule``, ``fine_fraction``, ``fine_mmd`` or ``z0``."""
-    if name in LINEAR:
-        return "linear"
-    if name == "wetness_rule":
-        return name
-    for prefix in ("fine_fraction_", "fine_mmd_"):
-        if name.startswith(prefix):
-            if name[len(prefix):] not in PARTICLES:
-                raise ValueError(f"unknown particle in factor {name!r}; expected one of "
-                                 f"{', '.join(PARTICLES)}")
-            return prefix[:-1]
-    if name.startswith("z0_"):
-        return "z0"
-    raise ValueError(f"unknown sensitivity factor {name!r}; expected one of "
-                     f"{', '.join(LINEAR)}, wetness_rule, fine_fraction_<particle>, "
-                     "fine_mmd_<particle>, z0_<land use>")
-
 
 def _salib():
     try:
@@ -393,6 +292,12 @@ def write_sensitivity(scenario, out, overwrite=False, quiet=False) -> dict:
     and the last period).  The budget of the scenario's ``[period]`` is analysed with
     the ``[sensitivity]`` options.
 
+    Parameters
+    ----------
+    scenario : workbench.scenario.Scenario
+        A loaded scenario (:func:`workbench.scenario.load_scenario`; this module does
+        not import the scenario module, which imports it).
+
     Returns
     -------
     dict
@@ -402,8 +307,7 @@ def write_sensitivity(scenario, out, overwrite=False, quiet=False) -> dict:
     from pathlib import Path
 
     from ..runfolder import RunFolder
-    from ..scenario import load_scenario
-    sc = load_scenario(scenario) if not hasattr(scenario, "options") else scenario
+    sc = scenario                 # loaded by the caller (scenario.py imports this module)
     say = (lambda text: None) if quiet else (lambda text: print(text, file=sys.stderr))
     with RunFolder(Path(out), {"scenario": sc.path, **sc.input_paths()}, overwrite,
                    say=say) as folder:      # whole or not at all, as a run folder
