@@ -202,7 +202,19 @@ class Study:
         steps = recent(self._memo.setdefault("velocity steps", {}), over, VELOCITY_STEP_SETS)
         return self._cached("velocities", repr(dry_options) + "|" + over,
                             lambda: velocities(self.inputs.met, self.surfaces(overrides),
-                                               dry_options, cache=steps, receptors=receptors))
+                                               self._site_nh3(dry_options, overrides),
+                                               cache=steps, receptors=receptors))
+
+    def _site_nh3(self, dry_options, overrides=None):
+        """The dry options with the catalogue's per-site NH3 emission potentials
+        (``"<site>/<class>"`` keys; a scenario's own such key wins)."""
+        if getattr(dry_options, "nh3_treatment", "") != "bidirectional":
+            return dry_options
+        site_g = self.catalogue(overrides).nh3_emission_potential()
+        if not site_g:
+            return dry_options
+        return dataclasses.replace(dry_options, nh3_emission_potential={
+            **site_g, **dry_options.nh3_emission_potential})
 
     def receptors(self, overrides=None) -> list:
         """Every receptor surface of the sites, in the order of the budget."""

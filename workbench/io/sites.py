@@ -39,7 +39,12 @@ SITE_KEYS = {
     "collector": (str, False, "'wet_only' (default) or 'bulk'"),
     "receptors": (list, False, "further land-use classes for dry deposition"),
     "critical_loads": (dict, False, "table of critical loads [eq/ha/yr]"),
+    "nh3_emission_potential": (dict, False, "table of stomatal NH3 emission potentials "
+                               "Gamma_s [-] by receptor class (bidirectional NH3)"),
 }
+#: Gamma_s above this is beyond the values reported for freshly fertilised crops
+#: (order 1e4; Massad et al. 2010, from memory): a hint, not an error [-].
+NH3_GAMMA_HINT = 1e5
 CRITICAL_LOAD_KEYS = ("cl_max_s", "cl_min_n", "cl_max_n", "cl_nut_n")
 COLLECTORS = ("wet_only", "bulk")
 
@@ -66,6 +71,7 @@ class Site:
     collector: str = "wet_only"
     receptors: tuple = ()
     critical_loads: dict = field(default_factory=dict)
+    nh3_emission_potential: dict = field(default_factory=dict)
 
     @property
     def surfaces(self) -> tuple:
@@ -115,6 +121,11 @@ class SiteCatalogue:
     @property
     def ids(self) -> list[str]:
         return list(self.sites)
+
+    def nh3_emission_potential(self) -> dict:
+        """Every site's Gamma_s as ``{"<site>/<class>": value}`` [-], the keys of
+        :attr:`workbench.drydep.DryOptions.nh3_emission_potential`."""
+        return {f"{s.id}/{c}": v for s in self for c, v in s.nh3_emission_potential.items()}
 
     def utc_offsets(self, site_ids) -> np.ndarray:
         """Offsets [h] of the given site ids (array of str)."""
@@ -337,6 +348,7 @@ def check_site(t: dict, err, notes: list, label: str) -> Site:
                       + ", ".join(CRITICAL_LOAD_KEYS) + suggest(key, CRITICAL_LOAD_KEYS))
         if isinstance(v, bool) or not isinstance(v, (int, float)) or v < 0:
             raise err("bad critical load", key, v, "a number >= 0 in eq/ha/yr")
+    gamma = _nh3_emission_potential(t, err, notes, label, receptors)
     for key in ("displacement_height_m", "terrain_slope_deg"):
         if key in t and t[key] < 0:
             raise err("negative value", key, t[key], "a value >= 0")
@@ -352,7 +364,31 @@ def check_site(t: dict, err, notes: list, label: str) -> Site:
         roughness_length_m=t.get("roughness_length_m"),
         displacement_height_m=t.get("displacement_height_m"),
         met_land_use=t.get("met_land_use"), collector=collector,
-        receptors=tuple(receptors), critical_loads={k2: float(v) for k2, v in cl.items()})
+        receptors=tuple(receptors), critical_loads={k2: float(v) for k2, v in cl.items()},
+        nh3_emission_potential=gamma)
+
+
+def _nh3_emission_potential(t, err, notes, label, receptors) -> dict:
+    """The site's ``nh3_emission_potential`` table: receptor class -> Gamma_s [-].
+
+    Each key must be one of the site's own surfaces (its land use or receptors: a
+    value for another surface would be silently unused), each value a number >= 0;
+    above :data:`NH3_GAMMA_HINT` a hint is noted.
+    """
+    gamma = dict(t.get("nh3_emission_potential", {}))
+    own = (t["land_use"],) + tuple(receptors)
+    for key, v in gamma.items():
+        if key not in own:
+            raise err("nh3_emission_potential for a surface the site does not have",
+                      "nh3_emission_potential", key, "one of the site's surfaces "
+                      + ", ".join(dict.fromkeys(own)) + suggest(key, own))
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not v >= 0:
+            raise err("bad NH3 emission potential", "nh3_emission_potential",
+                      f"{key} = {v!r}", "a number >= 0 (Gamma_s = [NH4+]/[H+], no unit)")
+        if v > NH3_GAMMA_HINT:
+            notes.append(f"{label}: nh3_emission_potential {key} = {v:g} is above the values "
+                         "reported for freshly fertilised crops (order 1e4): a typing error?")
+    return {k: float(v) for k, v in gamma.items()}
 
 
 #: Station elevations possible on land [m] (lowest shore about -430 m, highest summit
@@ -443,4 +479,6 @@ def site_dict(site: Site) -> dict:
             out[key] = getattr(site, key)
     if site.lai is not None:
         out["lai"] = list(site.lai)
+    if site.nh3_emission_potential:
+        out["nh3_emission_potential"] = dict(site.nh3_emission_potential)
     return out
