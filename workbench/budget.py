@@ -231,7 +231,10 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     xarray.Dataset
         Dims (site, receptor, period, component); ``deposition`` [mol m-2 of element],
         ``completeness`` [1], ``status`` (str), the wet and dry completeness fractions,
-        and per-element totals with their status.
+        and per-element totals with their status; ``nh3_deposition_only`` and
+        ``nh3_net`` [mol m-2] (site, receptor, period) and the attribute ``nh3_figure``
+        (the NH3 figure of the component and the totals: ``net`` when `dry` holds
+        ``nh3_net``, else ``deposition_only``).
     """
     sites = catalogue.ids
     n_s, n_r, n_p = len(sites), len(receptors), len(periods)

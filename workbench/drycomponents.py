@@ -162,7 +162,9 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=Non
         ``"species"``: species -> numpy results of
         :func:`workbench.dryflux.deposition_rows` plus ``site_index``; ``"vd_cum"``:
         species -> cumulative counts of modelled and filled Vd hours; ``"bracket"``:
-        (pair, how) -> the rows with the pair moved into one member; ``"notes"``,
+        (pair, how) -> the rows with the pair moved into one member;
+        ``"nh3_exchange"`` (when `vel` holds :data:`NH3_EXCHANGE`): the deposition and
+        emission parts of the net NH3 flux per NH3 sampling period; ``"notes"``,
         ``"measured"`` (site x species bool), ``"receptors"``, ``"times"``, ``"sites"``.
     """
     memo = {} if memo is None else memo
@@ -305,7 +307,9 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
         ``vd_filled_share`` [1], ``flux_coverage`` [1] (hours with a concentration
         and a deposition velocity: 0 where Vd or the air density is missing for every
         hour, and the deposition is then NaN, never 0), ``measured`` (site, species),
-        ``mixing_ratio`` (species: given as a mixing ratio), and the pair brackets.
+        ``mixing_ratio`` (species: given as a mixing ratio), the pair brackets and,
+        when the rows hold the bidirectional NH3 exchange, ``nh3_net`` (deposition -
+        emission, positive down) and ``nh3_emission`` [mol m-2] (site, receptor, period).
     """
     species_list = [c[2] for c in COMPONENTS if c[1] == "dry"]
     sites, receptors, times = rows["sites"], rows["receptors"], rows["times"]
