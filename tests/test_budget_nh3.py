@@ -212,6 +212,11 @@ def test_run_net_is_c_vd_minus_e_over_the_weeks(runs):
     assert _nh3(table, "crops")["status"] == "flagged"
     assert NH3_NET_EMISSION in _nh3(table, "crops")["note"]
     assert _nh3(table, "grass")["status"] == "complete"
+    # the site-year, computed on its own, carries the flag too
+    year = result.years.sel(site="gamma", component="N/dry/NH3")
+    assert str(year["status"].sel(receptor="crops").item()) == "flagged"
+    assert NH3_NET_EMISSION in str(year["note"].sel(receptor="crops").item())
+    assert float(year["deposition"].sel(receptor="crops").item()) < 0
 
 
 def test_run_summary_and_netcdf_carry_both_figures(runs):
@@ -285,3 +290,27 @@ def test_site_emission_potential_errors(tmp_path, extra, fragment):
     (tmp_path / "sites.toml").write_text(SITE + f"\n[site.nh3_emission_potential]\n{extra}\n")
     with pytest.raises(InputError, match=fragment):
         read_sites(tmp_path / "sites.toml")
+
+
+def test_hand_worked_emission_shared_by_its_own_hours(tmp_path):
+    """One weekly sample (2 ug/m3) across two reporting halves of 84 h; Vd_bd = 0.01 m/s
+    all week, E = 0.05 ug m-2 s-1 in the first 84 h only.  The deposition part splits
+    evenly (by Vd), the emission part all into the first half (by E):
+    first = (2 x 0.01 - 0.05) 84 h, second = 2 x 0.01 x 84 h [ug m-2]."""
+    (tmp_path / "sites.toml").write_text(SITE)
+    cat = read_sites(tmp_path / "sites.toml")
+    da, was, _ = _vel(0.01, "hand")
+    e = da.copy(data=np.zeros(da.shape))
+    e[..., :84] = 0.05e-9 / M_NH3
+    vel = {"NH3": _vel(0.01, "fixed"), "NH3_bidirectional": (da, was, "hand"),
+           "NH3_emission": (e, was, "hand")}
+    opts = BudgetOptions(require_all_seasons=False)
+    rows = dry_rows(_air([2.0]), vel, None, cat.ids, opts)
+    t0 = pd.Timestamp("2021-02-01")
+    periods = make_periods(t0, t0 + pd.Timedelta("7D"), "custom", ranges=[
+        (t0, t0 + pd.Timedelta("84h"), "first"), (t0 + pd.Timedelta("84h"), t0 + pd.Timedelta("7D"),
+                                                  "second")])
+    dry = dry_components(rows, periods)
+    net = dry["nh3_net"].sel(site="gamma", receptor="crops").values * M_NH3 * 1e9   # ug m-2
+    h84 = 84 * 3600.0
+    np.testing.assert_allclose(net, [(2 * 0.01 - 0.05) * h84, 2 * 0.01 * h84], rtol=1e-9)
