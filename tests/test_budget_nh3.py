@@ -153,7 +153,8 @@ def _scenario(tmp_path, treatment, site_extra="", gamma_crops=3000):
                         "wind_speed [m/s]": 3.0,
                         "temperature [degC]": 18 + 6 * np.sin((h - 9) / 24 * 2 * np.pi),
                         "relative_humidity [%]": 70.0,
-                        "solar_radiation [W/m2]": np.clip(np.sin((h - 6) / 12 * np.pi), 0, None) * 700,
+                        "solar_radiation [W/m2]":
+                            np.clip(np.sin((h - 6) / 12 * np.pi), 0, None) * 700,
                         "precipitation [mm]": 0.0, "pressure [hPa]": 1012.0})
     met.to_csv(tmp_path / "met.csv", index=False)
     (tmp_path / "scenario.toml").write_text(f"""

@@ -353,7 +353,8 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
         filled_share[..., k] = (c_fill[:, :, pb] - c_fill[:, :, pa]) / np.maximum(pb - pa, 1)
     nh3 = {}
     if "nh3_exchange" in rows:        # net = deposition part - emission part, per period
-        d_bd, e = agg(rows["nh3_exchange"]["deposition"])[0], agg(rows["nh3_exchange"]["emission"])[0]
+        ex = rows["nh3_exchange"]
+        d_bd, e = agg(ex["deposition"])[0], agg(ex["emission"])[0]
         dims3 = ("site", "receptor", "period")
         nh3 = {"nh3_net": (dims3, d_bd - e, {
                    "units": "mol m-2", "long_name": "net NH3 exchange of the compensation "
