@@ -4,8 +4,11 @@ Components (mol m-2 of the element; every S and N species holds one atom):
 
 * sulfur: wet SO4 (non-sea-salt by default, or total), dry SO2, dry pSO4 (non-sea-salt
   where pNa is measured and the basis is nss);
-* nitrogen: wet NO3, wet NH4, dry HNO3, dry pNO3, dry pNH4, dry NH3 (deposition only:
-  no compensation point), dry NO2.
+* nitrogen: wet NO3, wet NH4, dry HNO3, dry pNO3, dry pNH4, dry NH3, dry NO2.  Dry
+  NH3 is deposition only, or with ``[dry] nh3_treatment = "bidirectional"`` the net
+  exchange of the compensation point model (deposition - emission, may be negative),
+  with the deposition-only figure kept beside it (``nh3_deposition_only``) and the
+  figure the totals use in the attribute ``nh3_figure``.
 
 Each component carries its completeness and a status (``complete``, ``flagged``,
 ``filled``, ``partial``, ``missing``); a total built on a partial set of components
@@ -23,7 +26,7 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .budgetstatus import dry_status, join_notes, wet_component, wet_outputs
+from .budgetstatus import dry_status, join_notes, nh3_net_component, wet_component, wet_outputs
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
 from .units import deposition_in, element_deposition_in
@@ -64,8 +67,9 @@ OMISSIONS = (
      "deposition near coasts and dusty fields (common practice)"),
     ("unmeasured species (e.g. PAN, HONO, organic nitrates, NO2 where not measured)",
      "PAN and organic nitrates a few % of dry oxidized N (from memory)"),
-    ("bidirectional ammonia exchange", "NH3 treated as deposition only; emission from "
-     "fertilized fields can reverse the flux (Sutton et al. 1998; from memory)"),
+    ("bidirectional ammonia exchange (unless [dry] nh3_treatment is bidirectional)",
+     "NH3 treated as deposition only; emission from fertilized fields can reverse the "
+     "flux (Sutton et al. 1998; from memory)"),
     ("within-period covariance of concentration and Vd", "period-mean C times mean Vd "
      "misses 10-30 % for some species (see docs/budget.md)"),
 )
@@ -227,7 +231,10 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     xarray.Dataset
         Dims (site, receptor, period, component); ``deposition`` [mol m-2 of element],
         ``completeness`` [1], ``status`` (str), the wet and dry completeness fractions,
-        and per-element totals with their status.
+        and per-element totals with their status; ``nh3_deposition_only`` and
+        ``nh3_net`` [mol m-2] (site, receptor, period) and the attribute ``nh3_figure``
+        (the NH3 figure of the component and the totals: ``net`` when `dry` holds
+        ``nh3_net``, else ``deposition_only``).
     """
     sites = catalogue.ids
     n_s, n_r, n_p = len(sites), len(receptors), len(periods)
@@ -329,6 +336,20 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             fractions["air_coverage"][:, :, :, j] = cov
             fractions["flux_coverage"][:, :, :, j] = fc
             fractions["vd_coverage"][:, :, :, j] = vdc
+    # NH3: the net exchange replaces the deposition-only figure when the dry model gave it
+    j = [c[2] for c in comps].index("NH3")
+    nh3_only = np.where(status[..., j] == "missing", np.nan, dep[..., j])
+    nh3_net = np.full(nh3_only.shape, np.nan)
+    figure = "deposition_only"
+    if dry is not None and "nh3_net" in dr.variables and "NH3" in d_species:
+        nh3_net = dr.variables["nh3_net"].values
+        dep[..., j], status[..., j], comp_note[..., j] = nh3_net_component(
+            nh3_only, nh3_net, status[..., j], comp_note[..., j])
+        nh3_net = np.where(status[..., j] == "missing", np.nan, nh3_net)
+        figure = "net"
+        notes.append("NH3: the component and the N totals use the net exchange of the "
+                     "compensation point model (deposition - emission); the deposition-only "
+                     "figure is nh3_deposition_only")
     dep = np.where(status == "missing", np.nan, dep)
     compl = np.where(status == "missing", np.nan, compl)
     dims = ("site", "receptor", "period", "component")
@@ -346,7 +367,13 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             "fails_completeness": xr.Variable(dims, fails & (status != "missing"), {
                 "long_name": "the component fails a completeness criterion"}),
             "status": xr.Variable(dims, status),
-            "active": xr.Variable(("site", "receptor"), active)}
+            "active": xr.Variable(("site", "receptor"), active),
+            "nh3_deposition_only": xr.Variable(dims[:3], nh3_only, {
+                "units": "mol m-2", "long_name": "dry NH3 deposition, deposition only (the "
+                "gas scheme's Vd, no compensation point)"}),
+            "nh3_net": xr.Variable(dims[:3], nh3_net, {
+                "units": "mol m-2", "long_name": "net dry NH3 exchange, deposition - emission "
+                "(positive down; NaN unless nh3_treatment = bidirectional)"})}
     names, totals = _totals(dep, status, compl, elements, pathways, species, fails)
     data.update(totals)
     coords = {"site": sites, "receptor": list(receptors), "period": labels,
@@ -370,7 +397,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
         coords["wet_ion"] = wet_ions
     ds = xr.Dataset(data, coords=coords)               # built once (each assign aligns)
     ds.attrs.update({"options": json.dumps(options.to_dict(), sort_keys=True),
-                     "notes": json.dumps(notes),
+                     "notes": json.dumps(notes), "nh3_figure": figure,
                      "omissions": json.dumps([list(o) for o in OMISSIONS])})
     return ds
 

@@ -184,3 +184,43 @@ def wet_outputs(w: xr.Dataset):
                             "concentration (nss: non-sea-salt)"}),
     }
     return out, ions
+
+
+#: Reason written where the net NH3 exchange over a period is an emission while the
+#: deposition-only figure is a deposition (the sign flips).
+NH3_NET_EMISSION = "nh3_net_emission"
+
+
+def nh3_net_component(dep_only, net, status, note):
+    """The NH3 component as the net exchange, its flag where the sign flips.
+
+    Parameters
+    ----------
+    dep_only : ndarray (site, receptor, period)
+        Deposition-only NH3 flux (the scheme's Vd) [mol m-2].
+    net : ndarray (site, receptor, period)
+        Net exchange of the compensation point model, deposition - emission
+        (positive down; negative = emission, never clipped) [mol m-2].
+    status, note : ndarray of str
+        The component's status and note from the deposition-only rows (same sampling
+        periods, so the same coverage).
+
+    Returns
+    -------
+    dep, status, note : ndarray
+        The net flux; ``flagged`` (not failing completeness: it is the answer, read with
+        care) with the reason :data:`NH3_NET_EMISSION` where the net is an emission and
+        the deposition-only figure is not; ``missing`` where the net is unknown.
+    """
+    present = status != "missing"
+    flip = present & np.isfinite(net) & (net < 0) & ~(dep_only < 0)
+    unknown = present & ~np.isfinite(net)
+    status = np.where(flip & np.isin(status, ("complete", "filled")), "flagged", status)
+    note = np.where(flip, join_notes(note, f"{NH3_NET_EMISSION}: the net NH3 exchange is an "
+                                     "emission (deposition - emission < 0) while the "
+                                     "deposition-only figure is a deposition; N totals use "
+                                     "the net"), note)
+    note = np.where(unknown, join_notes(note, "net NH3 exchange unknown (no hour of the "
+                                        "compensation point model)"), note)
+    status = np.where(unknown, "missing", status)
+    return np.where(present & ~unknown, net, np.nan), status, note

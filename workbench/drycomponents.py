@@ -62,6 +62,38 @@ def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=
     return out
 
 
+#: Entries of the velocity sets that carry the bidirectional NH3 exchange (not species):
+#: the compensation point model's Vd [m s-1] and its emission term [mol m-2 s-1].
+NH3_EXCHANGE = {"NH3_bidirectional": "vd_NH3_bidirectional", "NH3_emission": "nh3_emission_flux"}
+
+
+def nh3_exchange_velocities(vd_ds, min_slot_hours=7):
+    """Gap-filled hourly Vd and emission term of the bidirectional NH3 model.
+
+    Parameters
+    ----------
+    vd_ds : xarray.Dataset or None
+        Output of :func:`workbench.drydep.velocities` run with ``nh3_treatment =
+        "bidirectional"`` (``vd_NH3_bidirectional`` [m s-1], ``nh3_emission_flux``
+        [mol m-2 s-1]).
+    min_slot_hours : int
+
+    Returns
+    -------
+    dict
+        ``"NH3_bidirectional"`` and ``"NH3_emission"`` -> (filled DataArray, was_filled,
+        source) as :func:`prepare_velocities`; empty when the Dataset has no exchange.
+        Gaps of the emission term are filled from its mean diurnal cycle like Vd.
+    """
+    if vd_ds is None or any(v not in vd_ds for v in NH3_EXCHANGE.values()):
+        return {}
+    out = {}
+    for name, var in NH3_EXCHANGE.items():
+        filled, was = fill_diurnal(vd_ds[var].load(), min_slot_hours)
+        out[name] = (filled, was, "nh3 compensation point")
+    return out
+
+
 def _nss_particles(air: xr.Dataset, basis: str) -> xr.Dataset:
     """Replace pSO4 by its non-sea-salt part where pNa is measured (Keene et al. 1986)."""
     if basis != "nss" or "pSO4" not in air or "pNa" not in air:
@@ -130,7 +162,9 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=Non
         ``"species"``: species -> numpy results of
         :func:`workbench.dryflux.deposition_rows` plus ``site_index``; ``"vd_cum"``:
         species -> cumulative counts of modelled and filled Vd hours; ``"bracket"``:
-        (pair, how) -> the rows with the pair moved into one member; ``"notes"``,
+        (pair, how) -> the rows with the pair moved into one member;
+        ``"nh3_exchange"`` (when `vel` holds :data:`NH3_EXCHANGE`): the deposition and
+        emission parts of the net NH3 flux per NH3 sampling period; ``"notes"``,
         ``"measured"`` (site x species bool), ``"receptors"``, ``"times"``, ``"sites"``.
     """
     memo = {} if memo is None else memo
@@ -206,6 +240,9 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=Non
         out["species"][sp] = r
         out["vd_cum"][sp] = arrays(sp)[2:4]
         out["notes"].extend(notes)
+    if "NH3" in out["species"] and all(k in vel for k in NH3_EXCHANGE):
+        out["nh3_exchange"] = _nh3_exchange_rows(air, one, arrays, inputs, shared, vel, sites,
+                                                 times, fkey, fingerprint)
     for pair, (gas, part) in PAIRS.items():
         if gas in air and part in air and gas in vel and part in vel:
             for how, into in (("all_gas", gas), ("all_particle", part)):
@@ -221,6 +258,32 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=Non
         [np.isin(sites, np.unique(air["site"].values[np.isfinite(air[sp].values)]))
          if sp in air else np.zeros(len(sites), bool) for sp in species_list], -1)
     return out
+
+
+def _nh3_exchange_rows(air, one, arrays, inputs, shared, vel, sites, times, fkey,
+                       fingerprint):
+    """The two parts of the net NH3 flux over each NH3 sampling period.
+
+    ``deposition``: C mean(Vd_bd) dt with the compensation point model's Vd, and
+    ``emission``: mean(E) dt [mol m-2] over the same hours (independent of C, so the
+    same for a concentration and a mixing ratio), NaN where the deposition part is
+    unknown; each with its own cumulative hourly sums (``cs``) so that a sampling
+    period straddling a reporting boundary shares each part by its own hours.
+    The net flux over a period is ``deposition - emission`` (positive down).
+    """
+    dep = one(air, "NH3", "NH3_bidirectional", None)[0]
+    key = ("nh3 emission rows", id(vel["NH3_emission"]), tuple(sites), fkey,
+           fingerprint(air, "NH3"))
+    if key not in shared:
+        vd = arrays("NH3_bidirectional")[0]
+        _, si, conc, _, _, _, _, t0, t1 = inputs(air, "NH3", vd)
+        e_np = vel["NH3_emission"][0].reindex(site=sites).transpose(
+            "site", "receptor", "time").values
+        e = deposition_rows(np.ones(len(conc)), "amount_density", si, t0, t1, times, e_np)
+        e["deposition"] = np.where(np.isfinite(dep["deposition"]), e["deposition"], np.nan)
+        e["site_index"] = si
+        shared[key] = (e, vel["NH3_emission"])        # the input held: its id stays unique
+    return {"deposition": dep, "emission": shared[key][0]}
 
 
 def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
@@ -245,7 +308,9 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
         ``vd_filled_share`` [1], ``flux_coverage`` [1] (hours with a concentration
         and a deposition velocity: 0 where Vd or the air density is missing for every
         hour, and the deposition is then NaN, never 0), ``measured`` (site, species),
-        ``mixing_ratio`` (species: given as a mixing ratio), and the pair brackets.
+        ``mixing_ratio`` (species: given as a mixing ratio), the pair brackets and,
+        when the rows hold the bidirectional NH3 exchange, ``nh3_net`` (deposition -
+        emission, positive down) and ``nh3_emission`` [mol m-2] (site, receptor, period).
     """
     species_list = [c[2] for c in COMPONENTS if c[1] == "dry"]
     sites, receptors, times = rows["sites"], rows["receptors"], rows["times"]
@@ -287,6 +352,16 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
         c_valid, c_fill = rows["vd_cum"][sp]
         vd_cov[..., k] = (c_valid[:, :, pb] - c_valid[:, :, pa]) / hours_p
         filled_share[..., k] = (c_fill[:, :, pb] - c_fill[:, :, pa]) / np.maximum(pb - pa, 1)
+    nh3 = {}
+    if "nh3_exchange" in rows:        # net = deposition part - emission part, per period
+        ex = rows["nh3_exchange"]
+        d_bd, e = agg(ex["deposition"])[0], agg(ex["emission"])[0]
+        dims3 = ("site", "receptor", "period")
+        nh3 = {"nh3_net": (dims3, d_bd - e, {
+                   "units": "mol m-2", "long_name": "net NH3 exchange of the compensation "
+                   "point model, deposition - emission (positive down)"}),
+               "nh3_emission": (dims3, e, {"units": "mol m-2",
+                                           "long_name": "NH3 emission term over the period"})}
     ds = xr.Dataset(
         {"deposition": (("site", "receptor", "period", "species"), dep, {"units": "mol m-2"}),
          "coverage": (("site", "period", "species"), cov, {"units": "1"}),
@@ -302,7 +377,7 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
                             "over the covered hours (amount of species; ambient)"}),
          **{f"bracket_{pair}_{how}": (("site", "receptor", "period"), agg(r)[0],
                                       {"units": "mol m-2"})
-            for (pair, how), r in rows["bracket"].items()}},
+            for (pair, how), r in rows["bracket"].items()}, **nh3},
         coords={"site": sites, "receptor": receptors, "period": periods["label"].values,
                 "species": species_list})
     return ds

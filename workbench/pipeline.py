@@ -28,7 +28,7 @@ import xarray as xr
 
 from . import periods as _periods
 from .budget import COMPONENTS, BudgetOptions, assemble, derived
-from .drycomponents import dry_components, dry_rows, prepare_velocities
+from .drycomponents import dry_components, dry_rows, nh3_exchange_velocities, prepare_velocities
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
 from .memo import digest, recent, trim
@@ -236,7 +236,19 @@ class Study:
         steps = recent(self._memo.setdefault("velocity steps", {}), over, VELOCITY_STEP_SETS)
         return self._cached("velocities", repr(dry_options) + "|" + over,
                             lambda: velocities(self.inputs.met, self.surfaces(overrides),
-                                               dry_options, cache=steps, receptors=receptors))
+                                               self._site_nh3(dry_options, overrides),
+                                               cache=steps, receptors=receptors))
+
+    def _site_nh3(self, dry_options, overrides=None):
+        """The dry options with the catalogue's per-site NH3 emission potentials
+        (``"<site>/<class>"`` keys; a scenario's own such key wins)."""
+        if getattr(dry_options, "nh3_treatment", "") != "bidirectional":
+            return dry_options
+        site_g = self.catalogue(overrides).nh3_emission_potential()
+        if not site_g:
+            return dry_options
+        return dataclasses.replace(dry_options, nh3_emission_potential={
+            **site_g, **dry_options.nh3_emission_potential})
 
     def receptors(self, overrides=None) -> list:
         """Every receptor surface of the sites, in the order of the budget."""
@@ -287,7 +299,19 @@ class Study:
                                  f"{budget_options.min_slot_hours}", make)
             if entry is not None:
                 out[sp] = entry
+        if (getattr(dry_options, "nh3_treatment", "") == "bidirectional" and vd is not None
+                and "vd_NH3_bidirectional" in vd and "NH3" in out
+                and "NH3" not in fixed_velocity):                   # the net NH3 flux
+            out.update(self._cached(
+                "dry", f"vel|NH3 exchange|{self._vd_digest(vd, 'NH3_bidirectional')}|"
+                f"{self._nh3_emission_digest(vd)}|{budget_options.min_slot_hours}",
+                lambda: nh3_exchange_velocities(vd, budget_options.min_slot_hours)))
         return out
+
+    def _nh3_emission_digest(self, vd: xr.Dataset) -> str:
+        """Content digest of the NH3 emission term (it changes with Gamma_s alone)."""
+        return digest([("", vd.variables["nh3_emission_flux"])]) if "nh3_emission_flux" in vd \
+            else ""
 
     def _vd_digest(self, vd: xr.Dataset, sp: str) -> str:
         """Content digest of a species' Vd in a velocities Dataset (once per Dataset)."""

@@ -80,6 +80,7 @@ def budget_table(ds: xr.Dataset) -> pd.DataFrame:
     if "options" in ds.attrs:
         basis = json.loads(ds.attrs["options"]).get("sulfate_basis", "nss")
     frame = _wet_columns(ds, frame, basis)
+    frame = _nh3_columns(ds, frame)
     order = {"wet": 0, "dry": 1, "total": 2}
     frame["_o"] = frame["pathway"].map(order) + (frame["species"] == "all") * 0.5
     frame = frame.sort_values(["site", "receptor", "period_start", "element", "_o"],
@@ -170,6 +171,39 @@ def _wet_columns(ds: xr.Dataset, frame: pd.DataFrame, basis: str) -> pd.DataFram
     return frame.assign(**out)
 
 
+def _nh3_columns(ds: xr.Dataset, frame: pd.DataFrame) -> pd.DataFrame:
+    """The two NH3 figures on the rows that hold NH3: the dry NH3 component and the
+    N dry and total sums.
+
+    ``nh3_figure`` (``net`` or ``deposition_only``: which NH3 figure the row's flux
+    uses), ``nh3_net_kg_ha`` and ``nh3_deposition_only_kg_ha`` [kg N ha-1] (the
+    period's NH3 figures), and ``flux_kg_ha_nh3_deposition_only`` [kg N ha-1] (the
+    row's flux with the deposition-only NH3 figure in place of the net); empty or NaN
+    on the other rows.
+    """
+    cols = ("nh3_net_kg_ha", "nh3_deposition_only_kg_ha", "flux_kg_ha_nh3_deposition_only")
+    if "nh3_deposition_only" not in ds:
+        return frame.assign(nh3_figure="", **{c: np.nan for c in cols})
+    figure = ds.attrs.get("nh3_figure", "deposition_only")
+    sp, pw = frame["species"].astype(str), frame["pathway"].astype(str)
+    sums = (sp == "all") & pw.isin(["dry", "total"])
+    rows = ((frame["element"] == "N") & ((sp == "NH3") | sums)).to_numpy()
+    si = pd.Index(ds["site"].values.astype(str)).get_indexer(frame["site"].astype(str))
+    ri = pd.Index(ds["receptor"].values.astype(str)).get_indexer(frame["receptor"].astype(str))
+    pi = pd.Index(ds["period"].values.astype(str)).get_indexer(frame["period"].astype(str))
+    rows = rows & (si >= 0) & (ri >= 0) & (pi >= 0)
+
+    def pick(var):
+        v = ds[var].transpose("site", "receptor", "period").values
+        return np.where(rows, element_deposition_in(v[si, ri, pi], "N", "kg_ha"), np.nan)
+    net, only = pick("nh3_net"), pick("nh3_deposition_only")
+    flux = frame["flux_kg_ha"].to_numpy(dtype=float)
+    swap = np.where(np.isfinite(net), flux - net + np.where(np.isfinite(only), only, 0.0), flux)
+    return frame.assign(nh3_figure=np.where(rows, figure, ""), nh3_net_kg_ha=net,
+                        nh3_deposition_only_kg_ha=only,
+                        flux_kg_ha_nh3_deposition_only=np.where(rows, swap, np.nan))
+
+
 def summary_table(result) -> pd.DataFrame:
     """summary.csv: one row per configured (site, receptor) pair and period.
 
@@ -215,6 +249,17 @@ def summary_table(result) -> pd.DataFrame:
                          ("flagged_components", "total_flagged_components")):
             if var in ds:
                 frame[f"{e}_total_{col}"] = ds[var].transpose(*order).values[si, ri, pi, j]
+    if "nh3_deposition_only" in ds:          # which NH3 figure N_total uses, and the other
+        order3 = ("site", "receptor", "period")
+        net = element_deposition_in(ds["nh3_net"].transpose(*order3).values[si, ri, pi], "N", "kg_ha")
+        only = element_deposition_in(ds["nh3_deposition_only"].transpose(*order3).values[si, ri, pi],
+                                     "N", "kg_ha")
+        frame["nh3_figure"] = ds.attrs.get("nh3_figure", "deposition_only")
+        frame["NH3_net_kg_ha"] = net
+        frame["NH3_deposition_only_kg_ha"] = only
+        frame["N_total_kg_ha_NH3_deposition_only"] = np.where(
+            np.isfinite(net), frame["N_total_kg_ha"] - net + np.where(np.isfinite(only), only, 0.0),
+            frame["N_total_kg_ha"])
     if "precipitation" in ds:
         def wet(var):
             return ds[var].transpose("site", "period").values[si, pi]

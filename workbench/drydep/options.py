@@ -183,10 +183,12 @@ class DryOptions:
         ``"deposition_only"``; or ``"bidirectional"``: also the canopy compensation point
         model (:mod:`workbench.drydep.nh3_bidirectional`), written as
         ``vd_NH3_bidirectional`` and ``nh3_emission_flux`` beside the deposition-only
-        ``vd_NH3`` (which the budget still uses).
+        ``vd_NH3``; the budget's NH3 is then the net flux, with the deposition-only
+        figure beside it (docs/budget.md).
     nh3_emission_potential : dict
         Stomatal emission potential Gamma_s [-] replacing the class default, keyed by
-        class (``"crops"``) or by site and class (``"farm/grass"``).
+        class (``"crops"``) or by site and class (``"farm/grass"``); sites.toml's
+        ``[site.nh3_emission_potential]`` gives the latter too (a key here wins).
     nh3_acid_ratio : float
         Molar ratio (2 SO2 + HNO3)/NH3 of the cuticular resistance (Massad et al.
         2010); 1 by default (our choice). [-]

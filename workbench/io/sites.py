@@ -39,6 +39,8 @@ SITE_KEYS = {
     "collector": (str, False, "'wet_only' (default) or 'bulk'"),
     "receptors": (list, False, "further land-use classes for dry deposition"),
     "critical_loads": (dict, False, "table of critical loads [eq/ha/yr]"),
+    "nh3_emission_potential": (dict, False, "table of stomatal NH3 emission potentials "
+                               "Gamma_s [-] by receptor class (bidirectional NH3)"),
     "coast_distance_km": ((int, float), False, "distance to the sea coast [km] (coastal or "
                           "inland particle size split)"),
     "coarse_fraction": (dict, False, "coarse mass fraction 0-1 per particle species, "
@@ -46,6 +48,9 @@ SITE_KEYS = {
 }
 #: Particle species a ``coarse_fraction`` table may name.
 PARTICLE_SPECIES = ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa")
+#: Gamma_s above this is beyond the values reported for freshly fertilised crops
+#: (order 1e4; Massad et al. 2010, from memory): a hint, not an error [-].
+NH3_GAMMA_HINT = 1e5
 CRITICAL_LOAD_KEYS = ("cl_max_s", "cl_min_n", "cl_max_n", "cl_nut_n")
 COLLECTORS = ("wet_only", "bulk")
 
@@ -72,6 +77,7 @@ class Site:
     collector: str = "wet_only"
     receptors: tuple = ()
     critical_loads: dict = field(default_factory=dict)
+    nh3_emission_potential: dict = field(default_factory=dict)
     coast_distance_km: float | None = None
     coarse_fraction: dict = field(default_factory=dict)
     #: receptor -> {critical-load key: value} from ``[site.critical_loads.<receptor>]``
@@ -130,6 +136,11 @@ class SiteCatalogue:
     @property
     def ids(self) -> list[str]:
         return list(self.sites)
+
+    def nh3_emission_potential(self) -> dict:
+        """Every site's Gamma_s as ``{"<site>/<class>": value}`` [-], the keys of
+        :attr:`workbench.drydep.DryOptions.nh3_emission_potential`."""
+        return {f"{s.id}/{c}": v for s in self for c, v in s.nh3_emission_potential.items()}
 
     def utc_offsets(self, site_ids) -> np.ndarray:
         """Offsets [h] of the given site ids (array of str)."""
@@ -411,6 +422,7 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
             if r:
                 raise table_err(problem, r, "cl_max_n", merged["cl_max_n"], expected)
             raise err(problem, "cl_max_n", merged["cl_max_n"], expected)
+    gamma = _nh3_emission_potential(t, err, notes, label, receptors)
     coarse = dict(t.get("coarse_fraction", {}))
     for key, v in coarse.items():
         if key not in PARTICLE_SPECIES:
@@ -438,7 +450,31 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
         coast_distance_km=None if "coast_distance_km" not in t else float(t["coast_distance_km"]),
         coarse_fraction={k2: float(v) for k2, v in coarse.items()},
         receptor_critical_loads={r: {k2: float(v) for k2, v in tb.items()}
-                                 for r, tb in per_receptor.items()})
+                                 for r, tb in per_receptor.items()},
+        nh3_emission_potential=gamma)
+
+
+def _nh3_emission_potential(t, err, notes, label, receptors) -> dict:
+    """The site's ``nh3_emission_potential`` table: receptor class -> Gamma_s [-].
+
+    Each key must be one of the site's own surfaces (its land use or receptors: a
+    value for another surface would be silently unused), each value a number >= 0;
+    above :data:`NH3_GAMMA_HINT` a hint is noted.
+    """
+    gamma = dict(t.get("nh3_emission_potential", {}))
+    own = (t["land_use"],) + tuple(receptors)
+    for key, v in gamma.items():
+        if key not in own:
+            raise err("nh3_emission_potential for a surface the site does not have",
+                      "nh3_emission_potential", key, "one of the site's surfaces "
+                      + ", ".join(dict.fromkeys(own)) + suggest(key, own))
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not v >= 0:
+            raise err("bad NH3 emission potential", "nh3_emission_potential",
+                      f"{key} = {v!r}", "a number >= 0 (Gamma_s = [NH4+]/[H+], no unit)")
+        if v > NH3_GAMMA_HINT:
+            notes.append(f"{label}: nh3_emission_potential {key} = {v:g} is above the values "
+                         "reported for freshly fertilised crops (order 1e4): a typing error?")
+    return {k: float(v) for k, v in gamma.items()}
 
 
 #: Station elevations possible on land [m] (lowest shore about -430 m, highest summit
@@ -533,4 +569,6 @@ def site_dict(site: Site) -> dict:
             out[key] = getattr(site, key)
     if site.lai is not None:
         out["lai"] = list(site.lai)
+    if site.nh3_emission_potential:
+        out["nh3_emission_potential"] = dict(site.nh3_emission_potential)
     return out
