@@ -118,6 +118,7 @@ class SiteExplorer(widgets.VBox):
         for k, a in ASSUMPTIONS.items():
             groups.setdefault(a.group, []).append(self.controls[k])
         acc = widgets.Accordion([widgets.VBox(v) for v in groups.values()])
+        acc.add_class("wb-assumptions")
         for i, g in enumerate(groups):
             acc.set_title(i, g)
         self.save_path_w = widgets.Text(value="my_scenario.toml", description="scenario file")
