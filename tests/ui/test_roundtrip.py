@@ -66,3 +66,18 @@ def test_saved_scenario_run_as_the_cli_does_gives_the_apps_totals(session, tmp_p
     # the controls changed the numbers (else the comparison proves little)
     assert not np.allclose(ours["value"].to_numpy(float), base["value"].to_numpy(float),
                            equal_nan=True)
+
+
+def test_the_apps_write_into_the_output_folder_not_beside_the_notebook(session, tmp_path,
+                                                                       monkeypatch):
+    from workbench.ui.session import OUTPUT_ENV, output_dir
+    monkeypatch.setenv(OUTPUT_ENV, str(tmp_path / "out"))
+    monkeypatch.chdir(tmp_path)                 # the notebook's folder
+    app = SiteExplorer(session, site="ridge", years=(2021, 2021))
+    assert app.save_path_w.value.startswith(str(output_dir()))
+    assert app.export_path_w.value.startswith(str(output_dir()))
+    path = app.save_scenario("mine.toml")
+    assert path == tmp_path / "out" / "mine.toml" and path.exists()
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["out"]
+    monkeypatch.delenv(OUTPUT_ENV)
+    assert output_dir() == output_dir().home() / "workbench-output"

@@ -18,7 +18,7 @@ from . import figures, figures_dry, figures_wet
 from .assumptions import ASSUMPTIONS, Settings
 from .controls import (Progress, caution_box, figure_widget, make_control, open_with_progress,
                        refresh, set_quietly, table_html)
-from .session import Session
+from .session import Session, output_dir
 from .palette import TEMPLATE
 from .summaries import UNITS, change_line, excluded_samples, mean_totals
 
@@ -121,10 +121,14 @@ class SiteExplorer(widgets.VBox):
         acc.add_class("wb-assumptions")
         for i, g in enumerate(groups):
             acc.set_title(i, g)
-        self.save_path_w = widgets.Text(value="my_scenario.toml", description="scenario file")
+        out = output_dir()
+        self.save_path_w = widgets.Text(value=str(out / "my_scenario.toml"),
+                                        description="scenario file",
+                                        layout=widgets.Layout(width="300px"))
         self.save_w = widgets.Button(description="Save scenario", icon="save",
                                      tooltip="write the current options as a scenario TOML file")
-        self.export_path_w = widgets.Text(value="run-folder", description="run folder")
+        self.export_path_w = widgets.Text(value=str(out / "run-folder"), description="run folder",
+                                          layout=widgets.Layout(width="300px"))
         self.overwrite_w = widgets.Checkbox(value=False, description="overwrite", indent=False)
         self.export_w = widgets.Button(description="Export run folder", icon="download",
                                        tooltip="the files of `workbench run`, for this site and "
@@ -328,7 +332,9 @@ class SiteExplorer(widgets.VBox):
         self.recompute("reset to the scenario")
 
     def save_scenario(self, path) -> Path:
-        """Save the current settings and years as a scenario file."""
+        """Save the current settings and years as a scenario file (a relative path is
+        taken in :func:`~workbench.ui.session.output_dir`, never beside the notebook)."""
+        path = output_dir() / Path(path).expanduser()
         try:
             p = self.session.save_scenario(path, self.settings, *self.years)
         except Exception as exc:
@@ -338,7 +344,9 @@ class SiteExplorer(widgets.VBox):
         return p
 
     def export_run(self, out, overwrite=False) -> dict:
-        """Export the run folder of this site and these years."""
+        """Export the run folder of this site and these years (a relative path is taken
+        in :func:`~workbench.ui.session.output_dir`)."""
+        out = output_dir() / Path(out).expanduser()
         self.progress.start("exporting the run folder")
         try:
             written = self.session.export_run(out, self.settings, self.site, *self.years,

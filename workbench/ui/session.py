@@ -40,6 +40,19 @@ OPEN_STEPS = ("site catalogue", "precipitation samples", "air concentrations",
               "hourly meteorology")
 
 
+#: Environment variable naming the folder of the apps' saved scenarios and run folders.
+OUTPUT_ENV = "WORKBENCH_OUTPUT"
+
+
+def output_dir() -> Path:
+    """Folder of what the apps write (saved scenarios, exported run folders).
+
+    ``$WORKBENCH_OUTPUT`` when set, else ``~/workbench-output``: never the notebook's
+    folder, so that using a notebook leaves nothing in the repository.
+    """
+    return Path(os.environ.get(OUTPUT_ENV) or Path.home() / "workbench-output").expanduser()
+
+
 def _say(progress, text, fraction=None):
     if progress is not None:
         progress(text, fraction)
