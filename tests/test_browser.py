@@ -243,6 +243,17 @@ def test_site_budget_in_a_real_browser(lab, token, page, tmp_path):
             box = control.bounding_box()
             assert box and box["width"] > 50 and box["height"] > 10, k
     _no_javascript_errors(page)
+    # nothing cut: every button shows its whole text, the app stays inside its area
+    cut = page.evaluate("() => [...document.querySelectorAll('.jp-OutputArea .widget-button')]"
+                        ".filter(b => b.scrollWidth > b.clientWidth + 1).map(b => b.innerText)")
+    assert cut == []
+    edges = page.evaluate(
+        "() => { const a = document.querySelector('.jp-OutputArea-output .widget-vbox');"
+        " const r = a.getBoundingClientRect().right;"
+        " return {app: r, window: window.innerWidth, out: [...a.querySelectorAll('*')]"
+        ".filter(e => e.offsetParent && e.getBoundingClientRect().right > r + 1)"
+        ".map(e => e.tagName + '.' + [...e.classList].join('.'))}; }")
+    assert edges["app"] <= edges["window"] and edges["out"] == [], edges
     before = page.evaluate(BUDGET)
     wet_so4 = _trace(before, "wet SO4")["y"][0]
     assert wet_so4 > 0

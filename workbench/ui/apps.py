@@ -28,6 +28,9 @@ TABS = ("monthly fluxes", "deposition velocity", "resistances", "ion balance",
 #: Titles of the velocity tabs when no velocities were computed.
 NO_VELOCITIES = {"deposition velocity": "no deposition velocities (fixed or no met)",
                  "resistances": "no resistances (fixed velocities or no met)"}
+#: Width of the explorer's figures [px]: beside the assumptions in the output area of
+#: a 1,600 px window (a plot drawn in a notebook does not know its box's width).
+FIGURE_WIDTH = 660
 #: Gases whose resistances may be shown.
 GASES = ("SO2", "HNO3", "NH3", "NO2")
 
@@ -122,28 +125,35 @@ class SiteExplorer(widgets.VBox):
         for i, g in enumerate(groups):
             acc.set_title(i, g)
         out = output_dir()
+        path_layout = widgets.Layout(width="440px")
         self.save_path_w = widgets.Text(value=str(out / "my_scenario.toml"),
-                                        description="scenario file",
-                                        layout=widgets.Layout(width="300px"))
+                                        description="scenario file", layout=path_layout)
         self.save_w = widgets.Button(description="Save scenario", icon="save",
-                                     tooltip="write the current options as a scenario TOML file")
+                                     tooltip="write the current options as a scenario TOML file",
+                                     layout=widgets.Layout(width="auto"))
         self.export_path_w = widgets.Text(value=str(out / "run-folder"), description="run folder",
-                                          layout=widgets.Layout(width="300px"))
-        self.overwrite_w = widgets.Checkbox(value=False, description="overwrite", indent=False)
+                                          layout=path_layout)
+        self.overwrite_w = widgets.Checkbox(value=False, description="overwrite", indent=False,
+                                            layout=widgets.Layout(width="auto"))
         self.export_w = widgets.Button(description="Export run folder", icon="download",
                                        tooltip="the files of `workbench run`, for this site and "
-                                               "these years")
-        self.reset_w = widgets.Button(description="Reset to scenario", icon="undo")
-        buttons = widgets.VBox([widgets.HBox([self.save_path_w, self.save_w]),
-                                widgets.HBox([self.export_path_w, self.overwrite_w, self.export_w]),
-                                widgets.HBox([self.reset_w]), self.message_w])
+                                               "these years", layout=widgets.Layout(width="auto"))
+        self.reset_w = widgets.Button(description="Reset to scenario", icon="undo",
+                                      layout=widgets.Layout(width="auto"))
+        buttons = widgets.VBox([self.save_path_w, self.save_w, self.export_path_w,
+                                widgets.HBox([self.export_w, self.overwrite_w]),
+                                self.reset_w, self.message_w])
         left = widgets.VBox([widgets.HTML("<b>Assumptions</b>"), acc, buttons],
                             layout=widgets.Layout(width="460px"))
         right = widgets.VBox([self.change_w, self.figs["budget"], self.gas_w, self.tabs],
-                             layout=widgets.Layout(flex="1"))
-        head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w])
+                             layout=widgets.Layout(flex="1 1 auto",
+                                                   min_width=f"{FIGURE_WIDTH + 30}px"))
+        head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w],
+                            layout=widgets.Layout(flex_flow="row wrap"))
+        # the figures go under the assumptions where the window is narrow
         return [widgets.HTML("<h3>Site budget explorer</h3>"), caution_box(), head,
-                self.progress, widgets.HBox([left, right])]
+                self.progress, widgets.HBox([left, right],
+                                            layout=widgets.Layout(flex_flow="row wrap"))]
 
     def _wire(self):
         for k, w in self.controls.items():
@@ -193,6 +203,7 @@ class SiteExplorer(widgets.VBox):
         template it was created with), or a plotly Figure with `template` to create a
         widget."""
         spec = self._spec(name)
+        spec = {**spec, "layout": {**spec.get("layout", {}), "width": FIGURE_WIDTH}}
         return spec if template is None else figures.from_spec(spec, template)
 
     def _spec(self, name):

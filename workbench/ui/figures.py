@@ -341,7 +341,7 @@ def network_ranking_bars(ranked: pd.DataFrame, apart: pd.DataFrame, element: str
     note = "<br>".join(f"{s}: not ranked ({w})" for s, w in zip(apart["site"], apart["why"]))
     if note:
         fig.add_annotation(text="Partial or flagged totals, not ranked:<br>" + note,
-                           xref="paper", yref="paper", x=0, y=-0.25, showarrow=False,
+                           xref="paper", yref="paper", x=0, y=0, yshift=-60, showarrow=False,
                            align="left", xanchor="left", yanchor="top",
                            bgcolor=ENVELOPE_FILL)
     fig.update_layout(title=f"{element} total, mean of the years: complete totals ranked",
