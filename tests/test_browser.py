@@ -90,6 +90,10 @@ def lab(tmp_path_factory, token):
               "network_overview": f'SCENARIO = r"{two}"\nYEARS = (2021, 2021)'}
     for name, text in params.items():
         nb = nbformat.read(NOTEBOOKS / f"{name}.ipynb", as_version=4)
+        for c in nb.cells:              # a user's run of the notebook may be saved in it
+            if c.cell_type == "code":
+                c.outputs, c.execution_count = [], None
+        nb.metadata.pop("widgets", None)
         nb.cells.insert(1, nbformat.v4.new_code_cell(text))
         nbformat.write(nb, root / f"{name}.ipynb")
     port = _free_port()

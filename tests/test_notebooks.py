@@ -35,6 +35,7 @@ def _parameters(name, scenarios):
 
 def _run(name, scenarios, tmp_path):
     nb = nbformat.read(NOTEBOOKS / f"{name}.ipynb", as_version=4)
+    nb.metadata.pop("widgets", None)     # a user's saved widget state (JupyterLab option)
     first = nb.cells[0]
     assert first.cell_type == "code" and "SCENARIO =" in first.source
     nb.cells.insert(1, nbformat.v4.new_code_cell(_parameters(name, scenarios)))
