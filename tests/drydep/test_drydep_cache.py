@@ -124,8 +124,8 @@ def _random_options(draw_mode, draw_choice):
             coarse=dataclasses.replace(spec.coarse, mmd=draw_mode((3e-6, 5e-6, 8e-6))))
     return dataclasses.replace(
         base, particle_modes=modes, particles=("pSO4", "pNO3", "pNH4"), gases=("SO2",),
-        wetness_rule=draw_choice(("met", "always_dry")),
-        ustar_floor=draw_choice((0.01, 0.1)))
+        wetness_rule=draw_choice(("met", "always_dry", "always_wet")),
+        ustar_floor=draw_choice((0.01, 0.1, 0.2)))
 
 
 @pytest.fixture(scope="module")
