@@ -1,9 +1,13 @@
-"""One real-browser test: JupyterLab on 127.0.0.1, Debian's chromium driven by Playwright.
+"""Real-browser tests: JupyterLab on 127.0.0.1, Debian's chromium driven by Playwright.
 
-The main notebook runs on a one site-year copy of the invented demo network; the test
-changes a control (the sulfate basis) and checks that the plotted bars changed, then
-saves a screenshot.  Skipped only when chromium or playwright is missing and the
-environment variable CI is not "true"; under CI=true a missing piece fails the test.
+The three notebooks run on small copies of the invented demo network.  Each test fails
+when any output area shows a javascript error (a widget view that could not render),
+and checks in the page what a user sees: every control of the site explorer visible,
+a control change reaching the bars, a reloaded page showing the current years, the
+sensitivity baseline line drawn with a width, and the network overview inside a
+1,600 px window.  Screenshots go to the test's temporary folder (and to
+``$WB_SCREENSHOTS`` when set).  Skipped only when chromium or playwright is missing
+and the environment variable CI is not "true"; under CI=true a missing piece fails.
 """
 import json
 import os
@@ -22,13 +26,15 @@ import pytest
 from ui.demo_subset import write_demo_subset
 
 CHROMIUM = "/usr/bin/chromium"
-NOTEBOOK = Path(__file__).resolve().parents[1] / "notebooks" / "site_budget.ipynb"
+NOTEBOOKS = Path(__file__).resolve().parents[1] / "notebooks"
 #: Flags that keep chromium off the (closed) network (see the browser-testing recipe).
 CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
                  "--disable-background-networking", "--disable-component-update",
                  "--disable-sync"]
 SERVER_START_S = 60      # most seconds for JupyterLab to answer
 PAGE_TIMEOUT_MS = 120_000
+#: Width of the browser window [px] (a common laptop screen).
+VIEWPORT = {"width": 1600, "height": 1200}
 pytestmark = pytest.mark.browser
 
 
@@ -77,11 +83,19 @@ def lab(tmp_path_factory, token):
         d.mkdir(parents=True, exist_ok=True)
     (cfg / "settings" / "@jupyterlab" / "apputils-extension" / "notification.jupyterlab-settings"
      ).write_text(json.dumps({"fetchNews": "false"}))
-    scenario = write_demo_subset(tmp / "data", ("ridge",), 2021, 2021)
-    nb = nbformat.read(NOTEBOOK, as_version=4)
-    nb.cells.insert(1, nbformat.v4.new_code_cell(
-        f'SCENARIO = r"{scenario}"\nSITE = "ridge"\nYEARS = (2021, 2021)'))
-    nbformat.write(nb, root / "site_budget.ipynb")
+    one = write_demo_subset(tmp / "one", ("ridge",), 2020, 2021)
+    two = write_demo_subset(tmp / "two", ("ridge", "mere"), 2021, 2021)
+    params = {"site_budget": f'SCENARIO = r"{one}"\nSITE = "ridge"\nYEARS = (2021, 2021)',
+              "sensitivity": f'SCENARIO = r"{one}"\nSITE = "ridge"\nYEARS = (2021, 2021)',
+              "network_overview": f'SCENARIO = r"{two}"\nYEARS = (2021, 2021)'}
+    for name, text in params.items():
+        nb = nbformat.read(NOTEBOOKS / f"{name}.ipynb", as_version=4)
+        for c in nb.cells:              # a user's run of the notebook may be saved in it
+            if c.cell_type == "code":
+                c.outputs, c.execution_count = [], None
+        nb.metadata.pop("widgets", None)
+        nb.cells.insert(1, nbformat.v4.new_code_cell(text))
+        nbformat.write(nb, root / f"{name}.ipynb")
     port = _free_port()
     env = dict(os.environ, JUPYTER_CONFIG_DIR=str(cfg / "config"),
                JUPYTER_RUNTIME_DIR=str(cfg / "runtime"), IPYTHONDIR=str(cfg / "ipython"))
@@ -122,59 +136,210 @@ def lab(tmp_path_factory, token):
 
 
 @pytest.fixture()
-def page(lab):
+def page(lab, request):
     from playwright.sync_api import sync_playwright
     with sync_playwright() as pw:
         browser = pw.chromium.launch(executable_path=CHROMIUM, headless=True, args=CHROMIUM_ARGS)
-        context = browser.new_context(viewport={"width": 1600, "height": 1200})
+        context = browser.new_context(viewport=VIEWPORT)
         context.route("**/*", lambda route: route.continue_()
                       if route.request.url.startswith(("http://127.0.0.1", "data:", "blob:"))
                       else route.abort())
         pg = context.new_page()
+        errors = []           # printed with a failure: what the browser console said
+        pg.on("console", lambda m: errors.append(m.text) if m.type == "error" else None)
+        pg.on("pageerror", lambda e: errors.append(str(e)))
         pg.set_default_timeout(PAGE_TIMEOUT_MS)
         yield pg
+        print("browser console errors:", *errors[:20], sep="\n")
+        if os.environ.get("WB_SCREENSHOTS"):       # the last state, also after a failure
+            Path(os.environ["WB_SCREENSHOTS"]).mkdir(parents=True, exist_ok=True)
+            pg.screenshot(path=str(Path(os.environ["WB_SCREENSHOTS"])
+                                   / f"last-{request.node.name}.png"), full_page=True)
         context.close()
         browser.close()
 
 
-#: JavaScript: the y values of every trace of the budget figure (the first plot).
-BUDGET_Y = """() => {
-  const el = document.querySelector('.wb-budget .js-plotly-plot')
+#: JavaScript: name, x (as JSON text) and y of every trace of the budget figure.
+BUDGET = """() => {
+  const el = document.querySelector('.wb-budget .js-plotly-plot, .js-plotly-plot.wb-budget')
              || document.querySelector('.jp-OutputArea .js-plotly-plot');
   if (!el || !el.data) return null;
-  return el.data.map(t => ({name: t.name, y: Array.from(t.y || [])}));
+  return el.data.map(t => ({name: t.name, x: JSON.stringify(t.x || []),
+                            y: Array.from(t.y || [])}));
+}"""
+#: JavaScript: texts of javascript errors shown in output areas (a widget view that
+#: failed to render, a failed Javascript output).
+JS_ERRORS = """() => {
+  const out = [];
+  document.querySelectorAll('.jp-OutputArea-output').forEach(area => {
+    // textContent: also in closed sections (a closed accordion hides its children)
+    area.querySelectorAll('.jupyter-widgets-error-widget, .jp-RenderedJavaScript')
+        .forEach(el => out.push((el.closest('.jupyter-widgets') || el).textContent.slice(0, 200)));
+    if (/javascript error/i.test(area.textContent || '')
+        && !area.querySelector('.jupyter-widgets-error-widget'))
+      out.push((area.textContent || '').slice(0, 200));
+  });
+  return out;
 }"""
 
 
-def test_site_budget_in_a_real_browser(lab, token, page, tmp_path):
-    page.goto(f"{lab}/lab/tree/site_budget.ipynb?token={token}&reset")
+def _run_all(page, lab, token, name):
+    """Open a notebook, wait for its kernel, run every cell and wait until it is idle."""
+    page.goto(f"{lab}/lab/tree/{name}.ipynb?token={token}&reset")
     page.wait_for_selector(".jp-Notebook .jp-Cell")
     page.wait_for_function(
         "() => /\\| Idle/.test(document.querySelector('#jp-main-statusbar')?.innerText || '')")
     page.evaluate("window.jupyterapp.commands.execute('notebook:run-all-cells')")
     page.wait_for_selector(".jp-OutputArea .js-plotly-plot")
-    page.wait_for_function(f"() => {{ const d = ({BUDGET_Y})(); return d && d.length >= 10; }}")
-    before = page.evaluate(BUDGET_Y)
-    wet_so4 = next(t["y"][0] for t in before if t["name"] == "wet SO4")
+    # every cell has run: the last code cell shows its execution count
+    page.wait_for_function(
+        "() => { const p = [...document.querySelectorAll('.jp-CodeCell .jp-InputPrompt')];"
+        " return p.length && p.every(e => /\\[\\d+\\]/.test(e.innerText)); }")
+
+
+def _no_javascript_errors(page):
+    page.wait_for_timeout(500)
+    errors = page.evaluate(JS_ERRORS)
+    assert errors == [], f"output areas show javascript errors: {errors}"
+
+
+def _screenshot(page, tmp_path, name):
+    """A screenshot of the app (a tall window: JupyterLab scrolls inside the page)."""
+    page.set_viewport_size({"width": VIEWPORT["width"], "height": 3000})
+    page.locator(".jp-OutputArea-output .jupyter-widgets").first.scroll_into_view_if_needed()
+    page.wait_for_timeout(300)
+    shot = tmp_path / f"{name}.png"
+    page.screenshot(path=str(shot), full_page=True)
+    page.set_viewport_size(VIEWPORT)
+    assert shot.stat().st_size > 10_000
+    if os.environ.get("WB_SCREENSHOTS"):
+        Path(os.environ["WB_SCREENSHOTS"]).mkdir(parents=True, exist_ok=True)
+        shutil.copy(shot, Path(os.environ["WB_SCREENSHOTS"]) / shot.name)
+
+
+def _close_sessions(lab, token):
+    status, body = _get(f"{lab}/api/sessions", token)
+    for s in json.loads(body):
+        _get(f"{lab}/api/sessions/{s['id']}", token, "DELETE")
+
+
+def _trace(data, name):
+    return next(t for t in data if t["name"] == name)
+
+
+def test_site_budget_in_a_real_browser(lab, token, page, tmp_path):
+    from workbench.ui.assumptions import ASSUMPTIONS
+    from workbench.ui.controls import css_class
+    _run_all(page, lab, token, "site_budget")
+    page.wait_for_function(f"() => {{ const d = ({BUDGET})(); return d && d.length >= 10; }}")
+    _no_javascript_errors(page)
+    # every control is there and visible once its section is open
+    groups = {}
+    for k, a in ASSUMPTIONS.items():
+        groups.setdefault(a.group, []).append(k)
+    for group, keys in groups.items():
+        page.locator(".wb-assumptions .jupyter-widget-Collapse-header",
+                     has_text=group).first.click()
+        for k in keys:
+            control = page.locator(f".{css_class(k)}")
+            assert control.count() == 1, k
+            control.wait_for(state="visible")
+            box = control.bounding_box()
+            assert box and box["width"] > 50 and box["height"] > 10, k
+    _no_javascript_errors(page)
+    # nothing cut: every button shows its whole text, the app stays inside its area
+    cut = page.evaluate("() => [...document.querySelectorAll('.jp-OutputArea .widget-button')]"
+                        ".filter(b => b.scrollWidth > b.clientWidth + 1).map(b => b.innerText)")
+    assert cut == []
+    edges = page.evaluate(
+        "() => { const a = document.querySelector('.jp-OutputArea-output .widget-vbox');"
+        " const r = a.getBoundingClientRect().right;"
+        " return {app: r, window: window.innerWidth, out: [...a.querySelectorAll('*')]"
+        ".filter(e => e.offsetParent && e.getBoundingClientRect().right > r + 1)"
+        ".map(e => e.tagName + '.' + [...e.classList].join('.'))}; }")
+    assert edges["app"] <= edges["window"] and edges["out"] == [], edges
+    before = page.evaluate(BUDGET)
+    wet_so4 = _trace(before, "wet SO4")["y"][0]
     assert wet_so4 > 0
-    # open the "sea salt" section of the assumptions and choose the total-sulfate basis
-    page.get_by_text("sea salt", exact=True).first.click()
+    # the "sea salt" section: choose the total-sulfate basis
+    page.locator(".wb-assumptions .jupyter-widget-Collapse-header",
+                 has_text="sea salt").first.click()
     select = page.locator(".wb-budget-sulfate-basis select")
     select.wait_for(state="visible")
     select.select_option(label="total")
     page.wait_for_function(
-        f"(old) => {{ const d = ({BUDGET_Y})(); if (!d) return false;"
+        f"(old) => {{ const d = ({BUDGET})(); if (!d) return false;"
         " const t = d.find(t => t.name === 'wet SO4'); return t && t.y[0] !== old; }",
         arg=wet_so4)
-    after = page.evaluate(BUDGET_Y)
-    new_so4 = next(t["y"][0] for t in after if t["name"] == "wet SO4")
-    assert new_so4 > wet_so4          # total sulfate includes the sea-salt part
+    after = page.evaluate(BUDGET)
+    assert _trace(after, "wet SO4")["y"][0] > wet_so4   # total sulfate adds the sea-salt part
     page.wait_for_function("() => /->/.test(document.querySelector('.wb-change')?.innerText || '')")
-    page.wait_for_timeout(300)
-    shot = tmp_path / "site_budget.png"
-    page.screenshot(path=str(shot), full_page=True)
-    assert shot.stat().st_size > 10_000
-    # leave no kernel behind
-    status, body = _get(f"{lab}/api/sessions", token)
-    for s in json.loads(body):
-        _get(f"{lab}/api/sessions/{s['id']}", token, "DELETE")
+    # the years: 2021 -> 2020-2021 with the lower handle of the slider
+    assert "2020" not in _trace(after, "total")["x"]
+    page.locator(".wb-years .noUi-handle").first.focus()
+    page.keyboard.press("ArrowLeft")
+    page.wait_for_function(
+        f"() => {{ const d = ({BUDGET})(); return d && d.length >= 10"
+        " && d.find(t => t.name === 'total').x.includes('2020'); }")
+    shown = page.evaluate(BUDGET)
+    _screenshot(page, tmp_path, "site_budget")
+    # a reloaded page shows the current state (the figures' synced state), not the
+    # figures as they were built
+    page.evaluate("window.jupyterapp.commands.execute('docmanager:save')")
+    page.wait_for_timeout(1000)
+    page.reload()
+    page.wait_for_selector(".jp-OutputArea .js-plotly-plot")
+    page.wait_for_function(f"() => {{ const d = ({BUDGET})(); return d && d.length >= 10; }}")
+    reloaded = page.evaluate(BUDGET)
+    assert _trace(reloaded, "total")["x"] == _trace(shown, "total")["x"]
+    assert "2020" in _trace(reloaded, "total")["x"]
+    assert _trace(reloaded, "wet SO4")["y"] == _trace(shown, "wet SO4")["y"]
+    _no_javascript_errors(page)
+    _screenshot(page, tmp_path, "site_budget_reloaded")
+    _close_sessions(lab, token)
+
+
+#: JavaScript: the drawn shapes of the sensitivity figure (type, width of the line).
+SHAPES = """() => {
+  const el = document.querySelector('.jp-OutputArea .js-plotly-plot');
+  if (!el || !el._fullLayout) return null;
+  return (el._fullLayout.shapes || []).map(s => ({type: s.type, width: s.line.width,
+                                                  dash: s.line.dash}));
+}"""
+
+
+def test_sensitivity_in_a_real_browser(lab, token, page, tmp_path):
+    _run_all(page, lab, token, "sensitivity")
+    _no_javascript_errors(page)
+    # the first sweep is a fixed velocity left to the model: its baseline is a dotted line
+    page.wait_for_function(f"() => {{ const s = ({SHAPES})(); return s && s.length > 0; }}")
+    shapes = page.evaluate(SHAPES)
+    lines = [s for s in shapes if s["type"] == "line"]
+    assert lines and all(s["width"] > 0 for s in lines), shapes
+    # the dotted paths are in the SVG with a visible stroke
+    widths = page.evaluate(
+        "() => [...document.querySelectorAll('.jp-OutputArea .js-plotly-plot .shapelayer path')]"
+        ".map(p => parseFloat(getComputedStyle(p).strokeWidth))")
+    assert widths and all(w > 0 for w in widths), widths
+    _screenshot(page, tmp_path, "sensitivity")
+    _close_sessions(lab, token)
+
+
+def test_network_overview_fits_a_1600_px_window(lab, token, page, tmp_path):
+    _run_all(page, lab, token, "network_overview")
+    page.wait_for_selector(".wb-network .js-plotly-plot")
+    _no_javascript_errors(page)
+    page.wait_for_timeout(500)
+    edges = page.evaluate(
+        "() => { const app = document.querySelector('.wb-network');"
+        " const area = app.closest('.jp-OutputArea-output').getBoundingClientRect();"
+        " const parts = [app, ...app.querySelectorAll('.js-plotly-plot, table, .widget-hbox')];"
+        " return {area: area.right, window: window.innerWidth,"
+        " parts: parts.map(e => [e.tagName + '.' + [...e.classList].join('.'),"
+        " Math.round(e.getBoundingClientRect().right)]),"
+        " scroll: app.scrollWidth - app.clientWidth}; }")
+    assert edges["area"] <= edges["window"]
+    assert [p for p in edges["parts"] if p[1] > edges["area"] + 1] == [], edges
+    assert edges["scroll"] <= 1, edges
+    _screenshot(page, tmp_path, "network_overview")
+    _close_sessions(lab, token)

@@ -5,6 +5,7 @@ at a one site-year copy of the invented demo network (tests/ui/demo_subset.py), 
 a colleague points the notebook at their own data.
 """
 import shutil
+import subprocess
 from pathlib import Path
 
 import nbformat
@@ -34,6 +35,7 @@ def _parameters(name, scenarios):
 
 def _run(name, scenarios, tmp_path):
     nb = nbformat.read(NOTEBOOKS / f"{name}.ipynb", as_version=4)
+    nb.metadata.pop("widgets", None)     # a user's saved widget state (JupyterLab option)
     first = nb.cells[0]
     assert first.cell_type == "code" and "SCENARIO =" in first.source
     nb.cells.insert(1, nbformat.v4.new_code_cell(_parameters(name, scenarios)))
@@ -65,14 +67,66 @@ def test_notebook_runs_headless(name, scenarios, tmp_path):
         assert "ridge" in last and "total" in last
 
 
-@pytest.mark.parametrize("path", sorted(NOTEBOOKS.glob("*.ipynb")), ids=lambda p: p.name)
-def test_notebooks_are_stored_without_outputs(path):
-    nb = nbformat.read(path, as_version=4)
+def _committed_notebooks():
+    """(name, text) of the notebooks in the last commit, or None outside a git checkout.
+
+    What a user does in JupyterLab (run all: the autosave stores outputs and execution
+    counts; a new notebook) changes the files on disk, not what is committed.
+    """
+    root = NOTEBOOKS.parent
+    try:
+        names = subprocess.run(["git", "-C", str(root), "ls-tree", "--name-only", "HEAD",
+                                "notebooks/"], capture_output=True, text=True, check=True,
+                               timeout=30).stdout.split()
+    except (OSError, subprocess.SubprocessError):
+        return None
+    out = []
+    for name in sorted(n for n in names if n.endswith(".ipynb")):
+        text = subprocess.run(["git", "-C", str(root), "show", f"HEAD:{name}"],
+                              capture_output=True, text=True, check=True, timeout=30).stdout
+        out.append((name, text))
+    return out
+
+
+_COMMITTED = _committed_notebooks()
+
+
+@pytest.mark.skipif(_COMMITTED is None, reason="not a git checkout: what is committed "
+                    "cannot be read (the files on disk may hold a user's outputs)")
+@pytest.mark.parametrize("name,text", _COMMITTED or [], ids=lambda v: v if
+                         str(v).endswith(".ipynb") else "")
+def test_notebooks_are_committed_without_outputs(name, text):
+    nb = nbformat.reads(text, as_version=4)
     nbformat.validate(nb)
     for c in nb.cells:
         if c.cell_type == "code":
-            assert c.outputs == [] and c.execution_count is None
+            assert c.outputs == [] and c.execution_count is None, name
     first = nb.cells[0]
     assert first.cell_type == "code" and "SCENARIO =" in first.source
     text = " ".join(c.source for c in nb.cells)
     assert "mapbox" not in text and "scatter_geo" not in text   # nothing fetches map tiles
+
+
+def test_every_notebook_is_committed():
+    if _COMMITTED is None:
+        pytest.skip("not a git checkout")
+    assert {Path(n).name for n, _ in _COMMITTED} == {"site_budget.ipynb", "sensitivity.ipynb",
+                                                     "network_overview.ipynb"}
+
+
+def test_run_artefacts_stay_out_of_the_notebooks_folder():
+    """What a user makes while using a notebook (checkpoints, saved scenarios, run
+    folders, other files) is ignored by git in notebooks/: only notebooks are tracked."""
+    root = NOTEBOOKS.parent
+    try:
+        ignored = subprocess.run(
+            ["git", "-C", str(root), "check-ignore", "--no-index", "notebooks/my_scenario.toml",
+             "notebooks/run-folder/budget.csv", "notebooks/.ipynb_checkpoints/x.ipynb",
+             "notebooks/site_budget.ipynb"], capture_output=True, text=True, timeout=30)
+    except OSError:
+        pytest.skip("git is not available")
+    if ignored.returncode == 128:
+        pytest.skip("not a git checkout")
+    assert ignored.stdout.split() == ["notebooks/my_scenario.toml",
+                                      "notebooks/run-folder/budget.csv",
+                                      "notebooks/.ipynb_checkpoints/x.ipynb"]

@@ -5,7 +5,7 @@ import dataclasses
 import numpy as np
 import pytest
 
-from drydep.dry_synthetic import make_met, make_surfaces
+from drydep.dry_synthetic import SITES as _SITES, make_met, make_surfaces
 from workbench.drydep import DryOptions, core, velocities
 from workbench.drydep import particles as _particles
 
@@ -106,3 +106,59 @@ def test_some_receptors_only_give_the_same_numbers(inputs):
         _assert_same(one, whole.sel(receptor=[rec]))
     with pytest.raises(ValueError, match="not among"):
         velocities(met, surf, DryOptions(), receptors=["no_such_surface"])
+
+
+# --- random sequences of dry controls (the particle step's cache evicted a mode it had
+# counted as cached before reading it: KeyError after some tens of changes) -------------
+
+def _random_options(draw_mode, draw_choice):
+    """DryOptions from a few discrete choices: particle sizes and fractions, wetness,
+    season and u* floor (what the explorer's dry controls change)."""
+    base = DryOptions()
+    modes = dict(base.particle_modes)
+    for sp in ("pSO4", "pNO3", "pNH4"):
+        spec = base.mode_of(sp)
+        modes[sp] = dataclasses.replace(
+            spec, fine_fraction=draw_choice((0.0, 0.5, 1.0)),
+            fine=dataclasses.replace(spec.fine, mmd=draw_mode((0.3e-6, 0.4e-6, 0.6e-6))),
+            coarse=dataclasses.replace(spec.coarse, mmd=draw_mode((3e-6, 5e-6, 8e-6))))
+    return dataclasses.replace(
+        base, particle_modes=modes, particles=("pSO4", "pNO3", "pNH4"), gases=("SO2",),
+        wetness_rule=draw_choice(("met", "always_dry", "always_wet")),
+        ustar_floor=draw_choice((0.01, 0.1, 0.2)))
+
+
+@pytest.fixture(scope="module")
+def tiny_inputs():
+    surfaces = make_surfaces({k: v for k, v in list(_SITES.items())[:1]})
+    return make_met(surfaces, hours=6, seed=3), surfaces
+
+
+@pytest.mark.parametrize("limit", [1, 2, 5, None])
+def test_random_sequences_of_dry_controls_never_lose_a_cached_mode(tiny_inputs, monkeypatch,
+                                                                   limit):
+    """Up to 120 random changes of the dry controls with a shared cache (small and
+    default bounds): each result equals a fresh calculation, no KeyError."""
+    from hypothesis import HealthCheck, given, settings, strategies as st
+
+    met, surf = tiny_inputs
+    if limit is not None:
+        monkeypatch.setitem(core.CACHE_ENTRIES, "particles", limit)
+    fresh = {}
+
+    @settings(max_examples=4, deadline=None, derandomize=True,
+              suppress_health_check=[HealthCheck.function_scoped_fixture])
+    @given(st.data())
+    def run(data):
+        cache = {}
+        for _ in range(data.draw(st.integers(20, 120))):
+            opt = _random_options(lambda xs: data.draw(st.sampled_from(xs)),
+                                  lambda xs: data.draw(st.sampled_from(xs)))
+            got = velocities(met, surf, opt, cache=cache)
+            key = repr(opt)
+            if key not in fresh:
+                fresh[key] = velocities(met, surf, opt)
+            _assert_same(got, fresh[key])
+            for stage, entries in cache.items():
+                assert len(entries) <= core.CACHE_ENTRIES[stage]
+    run()

@@ -257,9 +257,9 @@ def test_site_year_subset_gives_the_numbers_of_the_whole_study(two_sites_2021):
     np.testing.assert_allclose(a, b, rtol=1e-12)
 
 
-def test_saved_scenario_names_what_it_cannot_hold(session, tmp_path):
-    """Particle sizes have no scenario key yet: the file says so in a comment and still
-    reads back; a seasonal category and a wetness rule are written as options."""
+def test_saved_scenario_holds_particle_sizes_and_dry_options(session, tmp_path):
+    """Particle sizes are written as [dry.particle_modes.<species>] tables and read
+    back; a seasonal category and a wetness rule are written as options."""
     from workbench.scenario import load_scenario
     from workbench.ui.assumptions import apply
     st = apply(session.baseline, "ridge", {"particles.pNO3.fine_fraction": 0.2,
@@ -267,8 +267,10 @@ def test_saved_scenario_names_what_it_cannot_hold(session, tmp_path):
                                            "dry.wetness_rule": "always_dry"})
     path = session.save_scenario(tmp_path / "s.toml", st, 2021, 2021)
     text = path.read_text()
-    assert "# NOTE: particle size of pNO3" in text
+    assert "NOTE" not in text and "[dry.particle_modes.pNO3]" in text
     back = load_scenario(path)
+    assert back.options["dry"].mode_of("pNO3").fine_fraction == 0.2
+    assert back.options["dry"].mode_of("pNO3").coarse == session.baseline.dry.mode_of("pNO3").coarse
     assert back.options["dry"].seasonal_category == 4
     assert back.options["dry"].wetness_rule == "always_dry"
     assert back.data["period"]["start"] == "2021-01-01" and back.data["period"]["end"] == "2022-01-01"

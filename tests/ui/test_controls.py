@@ -93,3 +93,45 @@ def test_qa_figures_refresh_to_what_a_fresh_figure_shows(session, result):
     fresh = figures_wet.excluded_by_reason(result.screened, "ridge", "2021-06-01")
     assert [list(t.x) for t in w.data] == [list(t.x) for t in fresh.data]
     assert w.layout.height == fresh.layout.height
+
+
+def test_refresh_keeps_the_synced_state_that_a_reloaded_page_starts_from(result):
+    """A view opened later (a reload) draws ``_widget_data`` / ``_widget_layout``:
+    after a refresh they hold the new figure, not the figure as built."""
+    a = figures.budget_bars_spec(result.years, "ridge", "conifer_forest", None, "kg/ha/yr")
+    b = figures.budget_bars_spec(result.years, "ridge", "conifer_forest", None, "eq/ha/yr")
+    w = figure_widget(figures.from_spec(a, "simple_white"))
+    refresh(w, b)
+    fresh = go.Figure(figures.from_spec(b, "simple_white"))
+    state = w.get_state()
+    assert [t.get("name") for t in state["_widget_data"]] == [t.name for t in fresh.data]
+    for got, want in zip(state["_widget_data"], fresh.data):
+        np.testing.assert_allclose(np.asarray(got["y"], float), np.asarray(want.y, float))
+    assert state["_widget_layout"]["yaxis"]["title"]["text"] == fresh.layout.yaxis.title.text
+
+
+def test_sensitivity_baseline_lines_have_a_width():
+    """The template's shape default has a line width of 0 (plotly's simple_white): a
+    baseline line must set its own width, or the browser draws nothing."""
+    import pandas as pd
+    from plotly import io as pio
+    assert pio.templates["simple_white"].layout.shapedefaults.line.width == 0
+    table = pd.DataFrame({"value": [0.1, 0.2] * 6, "total": sorted(
+        [f"{el}_{pw}" for el in "SN" for pw in ("wet", "dry", "total")] * 2),
+        "rate": np.arange(12.0), "status": "complete"})
+    fig = figures.sensitivity_curves(table, "x", 0.1)
+    assert fig.layout.shapes and all(s.line.width > 0 for s in fig.layout.shapes)
+
+
+def test_no_tooltip_on_a_container_control():
+    """The front end's tooltip code reads a description that boxes have not (the view
+    then never renders): tooltips go on the parts of a composite control."""
+    import ipywidgets as widgets
+    from workbench.ui.assumptions import ASSUMPTIONS, Settings
+    from workbench.ui.controls import make_control
+    for key, a in ASSUMPTIONS.items():
+        w = make_control(a, a.get(Settings(), "ridge"))
+        if isinstance(w, widgets.Box):
+            assert not w.tooltip and all(p.tooltip == key for p in w.children), key
+        else:
+            assert w.tooltip == key

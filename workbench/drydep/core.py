@@ -443,11 +443,15 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         modes = list(dict.fromkeys(mode for pp in parts.values() for mode, _ in pp[0]))
         mode_key = {mode: k_state + repr((mode, opt.size_nodes)) for mode in modes}
         known = cache.get("particles", {}) if cache is not None else {}
-        todo = [mode for mode in modes if mode_key[mode] not in known]
+        # read the cached modes before storing new ones: storing may evict them
+        held = {mode: known[mode_key[mode]] for mode in modes if mode_key[mode] in known}
+        todo = [mode for mode in modes if mode not in held]
         new = dict(zip(todo, _particles.mass_weighted_velocities(
             todo, rh, us_r, ra, temp, pres, land, cat, wet, opt.size_nodes))) if todo else {}
+        new = {mode: {"vd": vd} for mode, vd in new.items()}
         by_mode = {mode: _stage(cache, "particles", mode_key[mode],
-                                lambda mode=mode: {"vd": new[mode]})["vd"] for mode in modes}
+                                lambda mode=mode: held.get(mode) or new[mode])["vd"]
+                   for mode in modes}
         for sp in opt.particles:
             weights, coarse, source = parts[sp]
             total = 0.0

@@ -18,7 +18,7 @@ from . import figures, figures_dry, figures_wet
 from .assumptions import ASSUMPTIONS, Settings
 from .controls import (Progress, caution_box, figure_widget, make_control, open_with_progress,
                        refresh, set_quietly, table_html)
-from .session import Session
+from .session import Session, output_dir
 from .palette import TEMPLATE
 from .summaries import UNITS, change_line, excluded_samples, mean_totals
 
@@ -28,6 +28,9 @@ TABS = ("monthly fluxes", "deposition velocity", "resistances", "ion balance",
 #: Titles of the velocity tabs when no velocities were computed.
 NO_VELOCITIES = {"deposition velocity": "no deposition velocities (fixed or no met)",
                  "resistances": "no resistances (fixed velocities or no met)"}
+#: Width of the explorer's figures [px]: beside the assumptions in the output area of
+#: a 1,600 px window (a plot drawn in a notebook does not know its box's width).
+FIGURE_WIDTH = 660
 #: Gases whose resistances may be shown.
 GASES = ("SO2", "HNO3", "NH3", "NO2")
 
@@ -118,27 +121,39 @@ class SiteExplorer(widgets.VBox):
         for k, a in ASSUMPTIONS.items():
             groups.setdefault(a.group, []).append(self.controls[k])
         acc = widgets.Accordion([widgets.VBox(v) for v in groups.values()])
+        acc.add_class("wb-assumptions")
         for i, g in enumerate(groups):
             acc.set_title(i, g)
-        self.save_path_w = widgets.Text(value="my_scenario.toml", description="scenario file")
+        out = output_dir()
+        path_layout = widgets.Layout(width="440px")
+        self.save_path_w = widgets.Text(value=str(out / "my_scenario.toml"),
+                                        description="scenario file", layout=path_layout)
         self.save_w = widgets.Button(description="Save scenario", icon="save",
-                                     tooltip="write the current options as a scenario TOML file")
-        self.export_path_w = widgets.Text(value="run-folder", description="run folder")
-        self.overwrite_w = widgets.Checkbox(value=False, description="overwrite", indent=False)
+                                     tooltip="write the current options as a scenario TOML file",
+                                     layout=widgets.Layout(width="auto"))
+        self.export_path_w = widgets.Text(value=str(out / "run-folder"), description="run folder",
+                                          layout=path_layout)
+        self.overwrite_w = widgets.Checkbox(value=False, description="overwrite", indent=False,
+                                            layout=widgets.Layout(width="auto"))
         self.export_w = widgets.Button(description="Export run folder", icon="download",
                                        tooltip="the files of `workbench run`, for this site and "
-                                               "these years")
-        self.reset_w = widgets.Button(description="Reset to scenario", icon="undo")
-        buttons = widgets.VBox([widgets.HBox([self.save_path_w, self.save_w]),
-                                widgets.HBox([self.export_path_w, self.overwrite_w, self.export_w]),
-                                widgets.HBox([self.reset_w]), self.message_w])
+                                               "these years", layout=widgets.Layout(width="auto"))
+        self.reset_w = widgets.Button(description="Reset to scenario", icon="undo",
+                                      layout=widgets.Layout(width="auto"))
+        buttons = widgets.VBox([self.save_path_w, self.save_w, self.export_path_w,
+                                widgets.HBox([self.export_w, self.overwrite_w]),
+                                self.reset_w, self.message_w])
         left = widgets.VBox([widgets.HTML("<b>Assumptions</b>"), acc, buttons],
                             layout=widgets.Layout(width="460px"))
         right = widgets.VBox([self.change_w, self.figs["budget"], self.gas_w, self.tabs],
-                             layout=widgets.Layout(flex="1"))
-        head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w])
+                             layout=widgets.Layout(flex="1 1 auto",
+                                                   min_width=f"{FIGURE_WIDTH + 30}px"))
+        head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w],
+                            layout=widgets.Layout(flex_flow="row wrap"))
+        # the figures go under the assumptions where the window is narrow
         return [widgets.HTML("<h3>Site budget explorer</h3>"), caution_box(), head,
-                self.progress, widgets.HBox([left, right])]
+                self.progress, widgets.HBox([left, right],
+                                            layout=widgets.Layout(flex_flow="row wrap"))]
 
     def _wire(self):
         for k, w in self.controls.items():
@@ -188,6 +203,7 @@ class SiteExplorer(widgets.VBox):
         template it was created with), or a plotly Figure with `template` to create a
         widget."""
         spec = self._spec(name)
+        spec = {**spec, "layout": {**spec.get("layout", {}), "width": FIGURE_WIDTH}}
         return spec if template is None else figures.from_spec(spec, template)
 
     def _spec(self, name):
@@ -330,7 +346,9 @@ class SiteExplorer(widgets.VBox):
         self.recompute("reset to the scenario")
 
     def save_scenario(self, path) -> Path:
-        """Save the current settings and years as a scenario file."""
+        """Save the current settings and years as a scenario file (a relative path is
+        taken in :func:`~workbench.ui.session.output_dir`, never beside the notebook)."""
+        path = output_dir() / Path(path).expanduser()
         try:
             p = self.session.save_scenario(path, self.settings, *self.years)
         except Exception as exc:
@@ -340,7 +358,9 @@ class SiteExplorer(widgets.VBox):
         return p
 
     def export_run(self, out, overwrite=False) -> dict:
-        """Export the run folder of this site and these years."""
+        """Export the run folder of this site and these years (a relative path is taken
+        in :func:`~workbench.ui.session.output_dir`)."""
+        out = output_dir() / Path(out).expanduser()
         self.progress.start("exporting the run folder")
         try:
             written = self.session.export_run(out, self.settings, self.site, *self.years,

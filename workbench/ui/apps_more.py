@@ -19,6 +19,9 @@ SWEEP_STEPS = 6
 MAX_STEPS = 15
 #: Assumption swept when the explorer opens (a budget-stage one: no Vd recomputed).
 FIRST_SWEEP = "fixed_velocity.SO2"
+#: Width of each ranking of the network overview [px]: two fit side by side in the
+#: output area of a 1,600 px window beside JupyterLab's file browser.
+RANKING_WIDTH = 540
 
 
 def sweep_values(a, low=None, high=None, steps=SWEEP_STEPS) -> list:
@@ -73,6 +76,7 @@ class SensitivityExplorer(widgets.VBox):
         self.table_w = widgets.HTML("")
         self.table = pd.DataFrame(columns=["value", "total", "rate", "status"])
         self.fig = figure_widget(figures.sensitivity_curves(self.table, "", None, unit))
+        self.fig.add_class("wb-sensitivity")
         self._set_range()
         self.key_w.observe(lambda c: self._set_range(), "value")
         self.site_w.observe(self._on_site, "value")
@@ -124,7 +128,7 @@ class SensitivityExplorer(widgets.VBox):
             for col, el in enumerate(("S", "N"), start=1):
                 v = b.loc[b["total"] == f"{el}_total", "rate"].iloc[0]
                 if np.isfinite(v):
-                    fig.add_hline(y=v, line=dict(dash="dot"), row=1, col=col,
+                    fig.add_hline(y=v, line=figures.baseline_line(), row=1, col=col,
                                   annotation_text="baseline (model)")
             self.note_w.value = "Baseline: left to the model or the catalogue (dotted line)."
         else:
@@ -167,11 +171,17 @@ class NetworkOverview(widgets.VBox):
         self.analysis = network_analysis_table(self.results, self.session.study.catalogue())
         self.analysis_w = widgets.HTML("<b>Trends of the annual totals and critical-load "
                                        "exceedance of the span [eq/ha/yr]</b>"
-                                       + table_html(self.analysis))
+                                       + table_html(self.analysis),
+                                       layout=widgets.Layout(width="100%", overflow="auto"))
+        # the two rankings side by side where the window is wide enough, else one
+        # under the other (a plot drawn in a notebook does not know its box's width)
+        rankings = widgets.HBox([self.figs["S"], self.figs["N"]],
+                                layout=widgets.Layout(width="100%", flex_flow="row wrap"))
         super().__init__([widgets.HTML("<h3>Network overview</h3>"), caution_box(),
                           widgets.HBox([self.unit_w, self.progress]), self.figs["totals"],
-                          widgets.HBox([self.figs["S"], self.figs["N"]]), self.apart_w,
-                          self.analysis_w])
+                          rankings, self.apart_w, self.analysis_w],
+                         layout=widgets.Layout(width="100%"))
+        self.add_class("wb-network")
 
     def table(self, unit=None) -> pd.DataFrame:
         """Annual totals of every site on its own surface (see :func:`network_table`)."""
@@ -188,7 +198,8 @@ class NetworkOverview(widgets.VBox):
         apart_rows = []
         for el in ("S", "N"):
             ranked, apart = network_ranking(t, el)
-            new[el] = figures.network_ranking_bars(ranked, apart, el, unit)
+            new[el] = figures.network_ranking_bars(ranked, apart, el, unit).update_layout(
+                width=RANKING_WIDTH)
             apart_rows.append(apart.assign(element=el))
         apart = pd.concat(apart_rows, ignore_index=True)
         for k, f in new.items():

@@ -29,7 +29,7 @@ FIXED_SPECIES = ("SO2", "HNO3", "NH3", "NO2", "pSO4", "pNO3", "pNH4")
 PARTICLE_SPECIES = ("pSO4", "pNO3", "pNH4")
 #: Wesely (1989, Atmos. Environ. 23, 1293-1304) seasonal categories, as in
 #: :mod:`workbench.drydep.seasons`.
-SEASONAL_CATEGORIES = (("automatic (surface state, month, latitude)", None),
+SEASONAL_CATEGORIES = (("automatic (surface state, month, latitude)", "automatic"),
                        ("1 midsummer, lush vegetation", 1),
                        ("2 autumn, unharvested cropland", 2),
                        ("3 late autumn after frost, no snow", 3),
@@ -202,6 +202,20 @@ def _mode_size(which, label, bounds, sweep):
                       bounds=bounds, sweep=sweep)
 
 
+def _seasonal_category():
+    """The seasonal category; "automatic" stands for None (a drop-down shows no None)."""
+    def get(s, site):
+        sc = s.dry.seasonal_category
+        return "automatic" if sc is None else sc
+
+    def set_(s, site, value):
+        value = None if value == "automatic" else value
+        return s.replace(dry=dataclasses.replace(s.dry, seasonal_category=value))
+
+    return Assumption("dry.seasonal_category", "seasonal category", "surface", "choice", "dry",
+                      get, set_, SEASONAL_CATEGORIES)
+
+
 def _build() -> dict:
     qa = "QA actions"
     comp = "completeness"
@@ -233,8 +247,7 @@ def _build() -> dict:
                 (("Na", "Na"), ("Mg", "Mg"), ("Cl", "Cl"))),
         _option("dry", "wetness_rule", "surface wetness rule", "surface", "choice",
                 tuple((r.replace("_", " "), r) for r in WETNESS_RULES)),
-        _option("dry", "seasonal_category", "seasonal category", "surface", "choice",
-                SEASONAL_CATEGORIES),
+        _seasonal_category(),
         _site_override("roughness_length_m", "roughness length z0 of the site [m]",
                        (0.0001, 5.0, 0.01), (0.01, 2.0)),
         _mode_size("fine", "fine-mode MMD [um]", (0.05, 2.5, 0.05), (0.1, 1.0)),

@@ -78,7 +78,10 @@ def make_control(a: Assumption, value):
     style = {"description_width": DESCRIPTION_WIDTH}
     layout = widgets.Layout(width=CONTROL_WIDTH)
     if a.kind == "choice":
-        w = widgets.Dropdown(options=list(a.choices), value=value, description=a.label,
+        options = list(a.choices)
+        if value not in a.values:          # e.g. a scenario's 12 monthly categories
+            options.append((f"as in the scenario: {value}", value))
+        w = widgets.Dropdown(options=options, value=value, description=a.label,
                              style=style, layout=layout)
     elif a.kind == "bool":
         w = widgets.Checkbox(value=bool(value), description=a.label, indent=False, layout=layout)
@@ -93,7 +96,10 @@ def make_control(a: Assumption, value):
     else:
         raise ValueError(f"unknown kind of assumption {a.kind!r}")
     w.add_class(css_class(a.key))
-    w.tooltip = a.key
+    # the scenario key as a tooltip; never on a container: the front end's tooltip code
+    # reads the description, which a Box has not (a TypeError: the view never renders)
+    for part in (w.children if isinstance(w, widgets.Box) else [w]):
+        part.tooltip = a.key
     return w
 
 
@@ -215,6 +221,7 @@ def refresh(widget: go.FigureWidget, fig) -> dict:
         with widget.batch_update():
             widget.layout.update(spec["layout"], overwrite=True)
         _remember(widget, spec)
+        keep_state(widget)
         return {"restyled": len(types), "relayout": len(spec["layout"]), "replaced": True}
     n = len(types)
     restyle: dict = {}
@@ -240,8 +247,22 @@ def refresh(widget: go.FigureWidget, fig) -> dict:
         widget.plotly_update(restyle_data=restyle, relayout_data=relayout,
                              trace_indexes=list(range(n)))
     shown.update(traces=new_traces, layout=new_layout)
+    keep_state(widget)
     return {"restyled": sum(sum(v is not Undefined for v in vals) for vals in restyle.values()),
             "relayout": len(relayout) + len(compound), "replaced": False}
+
+
+def keep_state(widget: go.FigureWidget) -> None:
+    """Copy what a FigureWidget shows into its synced state.
+
+    Plotly sends updates to the views open now as one-off messages; a view opened
+    later (a reloaded page, a second view of the output) starts from the synced state,
+    which plotly sets only at construction and display.  The views open now do not
+    draw again when it changes.
+    """
+    from copy import deepcopy
+    widget._widget_layout = deepcopy(widget._layout_obj._props)
+    widget._widget_data = deepcopy(widget._data)
 
 
 def figure_widget(fig) -> go.FigureWidget:
@@ -258,7 +279,8 @@ def table_html(frame: pd.DataFrame, empty="none") -> str:
         return f"<p><i>{html.escape(empty)}</i></p>"
     body = frame.to_html(index=False, border=0, escape=True, na_rep="–",
                          float_format=lambda v: f"{v:.3g}")
-    return (f"<div style='max-height:{TABLE_HEIGHT};overflow:auto;font-size:85%'>{body}</div>")
+    return (f"<div style='max-height:{TABLE_HEIGHT};max-width:100%;overflow:auto;"
+            f"font-size:85%'>{body}</div>")
 
 
 def caution_box() -> widgets.HTML:

@@ -217,6 +217,15 @@ def monthly_fluxes(ds_month, site, receptor, unit="kg/ha/yr", template=TEMPLATE)
     return from_spec(monthly_fluxes_spec(ds_month, site, receptor, unit), template)
 
 
+#: Width of a baseline line [px]: the template's shape default is 0 (invisible).
+BASELINE_WIDTH = 1.5
+
+
+def baseline_line() -> dict:
+    """Line of a baseline marker (dotted grey, with an explicit width)."""
+    return {"color": OKABE_ITO["grey"], "dash": "dot", "width": BASELINE_WIDTH}
+
+
 def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr", template=TEMPLATE):
     """Response of each total to one assumption, the baseline marked.
 
@@ -259,7 +268,7 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
         fig.update_yaxes(title_text=axis_text(unit, element=el), row=1, col=col, rangemode="tozero")
         fig.update_xaxes(title_text=label, row=1, col=col)
     if not cat and baseline is not None:
-        fig.add_vline(x=baseline, line=dict(color=OKABE_ITO["grey"], dash="dot"))
+        fig.add_vline(x=baseline, line=baseline_line())
     fig.update_layout(title=f"Sensitivity of the totals to {label}", template=template,
                       height=HEIGHT)
     return fig
@@ -332,7 +341,7 @@ def network_ranking_bars(ranked: pd.DataFrame, apart: pd.DataFrame, element: str
     note = "<br>".join(f"{s}: not ranked ({w})" for s, w in zip(apart["site"], apart["why"]))
     if note:
         fig.add_annotation(text="Partial or flagged totals, not ranked:<br>" + note,
-                           xref="paper", yref="paper", x=0, y=-0.25, showarrow=False,
+                           xref="paper", yref="paper", x=0, y=0, yshift=-60, showarrow=False,
                            align="left", xanchor="left", yanchor="top",
                            bgcolor=ENVELOPE_FILL)
     fig.update_layout(title=f"{element} total, mean of the years: complete totals ranked",

@@ -40,6 +40,19 @@ OPEN_STEPS = ("site catalogue", "precipitation samples", "air concentrations",
               "hourly meteorology")
 
 
+#: Environment variable naming the folder of the apps' saved scenarios and run folders.
+OUTPUT_ENV = "WORKBENCH_OUTPUT"
+
+
+def output_dir() -> Path:
+    """Folder of what the apps write (saved scenarios, exported run folders).
+
+    ``$WORKBENCH_OUTPUT`` when set, else ``~/workbench-output``: never the notebook's
+    folder, so that using a notebook leaves nothing in the repository.
+    """
+    return Path(os.environ.get(OUTPUT_ENV) or Path.home() / "workbench-output").expanduser()
+
+
 def _say(progress, text, fraction=None):
     if progress is not None:
         progress(text, fraction)
@@ -195,9 +208,10 @@ class Session:
                           base_dir=None) -> tuple[dict, list]:
         """The settings as a scenario (TOML-ready dict) and comment lines.
 
-        Only options that differ from the defaults are written.  Input paths are
-        relative to `base_dir` (absolute when None).  Particle size distributions
-        have no scenario key yet: they are written as comments (see the notes).
+        Only options that differ from the defaults are written (particle size
+        distributions as ``[dry.particle_modes.<species>]`` tables).  Input paths are
+        relative to `base_dir` (absolute when None).  An option TOML cannot hold (None
+        where the default is a value) is named in a comment line.
         """
         sc = self.scenario
         inputs = {}
@@ -223,11 +237,14 @@ class Session:
             if new == old:
                 continue
             if f.name == "particle_modes":
-                for sp, spec in sorted(new.items()):
-                    if spec != dry_default.mode_of(sp):
-                        comments.append(f"particle size of {sp} set in the app (no scenario key "
-                                        f"yet, not applied when read): {spec}")
-            elif f.name == "roughness" or new is None:
+                # [dry.particle_modes.<species>] tables, read over the defaults
+                modes = {sp: _plain_mode(spec) for sp, spec in sorted(new.items())
+                         if spec != dry_default.mode_of(sp)}
+                if modes:
+                    dry_out["particle_modes"] = modes
+            elif f.name == "roughness" and new:
+                dry_out["roughness"] = {k: [float(x) for x in v] for k, v in new.items()}
+            elif new is None:
                 comments.append(f"dry.{f.name} set in the app (not written): {new!r}")
             else:
                 dry_out[f.name] = list(new) if isinstance(new, tuple) else new
@@ -302,10 +319,19 @@ def _diff(default: dict, current: dict) -> dict:
     return out
 
 
+def _plain_mode(spec) -> dict:
+    """A particle size distribution as a scenario table (sizes in m, as the options)."""
+    return {"fine_fraction": float(spec.fine_fraction),
+            "fine": dataclasses.asdict(spec.fine), "coarse": dataclasses.asdict(spec.coarse)}
+
+
 def _same(scenario, settings: Settings) -> bool:
-    """A scenario read back gives the settings (particle sizes aside)."""
-    dry_a = dataclasses.replace(scenario.options["dry"], particle_modes={})
-    dry_b = dataclasses.replace(settings.dry, particle_modes={})
+    """A scenario read back gives the settings."""
+    def norm(dry):
+        modes = {sp: dry.mode_of(sp) for sp in set(dry.particle_modes) | set(DryOptions().particle_modes)}
+        rough = {k: tuple(float(x) for x in v) for k, v in dry.roughness.items()}
+        return dataclasses.replace(dry, particle_modes=modes, roughness=rough)
+    dry_a, dry_b = norm(scenario.options["dry"]), norm(settings.dry)
     if isinstance(dry_b.seasonal_category, tuple):
         dry_a = dataclasses.replace(dry_a, seasonal_category=tuple(dry_a.seasonal_category))
     sites_a = {k: v for k, v in scenario.data.get("sites", {}).items() if v}
