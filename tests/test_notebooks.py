@@ -110,8 +110,9 @@ def test_notebooks_are_committed_without_outputs(name, text):
 def test_every_notebook_is_committed():
     if _COMMITTED is None:
         pytest.skip("not a git checkout")
-    assert {Path(n).name for n, _ in _COMMITTED} == {"site_budget.ipynb", "sensitivity.ipynb",
-                                                     "network_overview.ipynb"}
+    assert {Path(n).name for n, _ in _COMMITTED} == {
+        "site_budget.ipynb", "sensitivity.ipynb", "network_overview.ipynb",
+        "critical_loads.ipynb"}
 
 
 def test_run_artefacts_stay_out_of_the_notebooks_folder():

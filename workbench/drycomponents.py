@@ -276,7 +276,7 @@ def _nh3_exchange_rows(air, one, arrays, inputs, shared, vel, sites, times, fkey
            fingerprint(air, "NH3"))
     if key not in shared:
         vd = arrays("NH3_bidirectional")[0]
-        _, si, conc, _, _, _, _, t0, t1 = inputs(air, "NH3", vd)
+        _, si, conc, _, _, _, _, t0, t1, _ = inputs(air, "NH3", vd)
         e_np = vel["NH3_emission"][0].reindex(site=sites).transpose(
             "site", "receptor", "time").values
         e = deposition_rows(np.ones(len(conc)), "amount_density", si, t0, t1, times, e_np)

@@ -169,10 +169,12 @@ class NetworkOverview(widgets.VBox):
         self.unit_w.observe(lambda c: self._draw(), "value")
         from .apps_analysis import network_analysis_table
         self.analysis = network_analysis_table(self.results, self.session.study.catalogue())
+        # no width of its own: the column stretches it (a 100 % width plus the widget's
+        # margins ran 4 px past the app); a wide table scrolls inside its own box
         self.analysis_w = widgets.HTML("<b>Trends of the annual totals and critical-load "
                                        "exceedance of the span [eq/ha/yr]</b>"
-                                       + table_html(self.analysis),
-                                       layout=widgets.Layout(width="100%", overflow="auto"))
+                                       "<div style='overflow-x:auto;max-width:100%'>"
+                                       + table_html(self.analysis) + "</div>")
         # the two rankings side by side where the window is wide enough, else one
         # under the other (a plot drawn in a notebook does not know its box's width)
         rankings = widgets.HBox([self.figs["S"], self.figs["N"]],
