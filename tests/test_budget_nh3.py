@@ -234,26 +234,6 @@ def test_run_summary_and_netcdf_carry_both_figures(runs):
     nc.close()
 
 
-def test_run_deposition_only_matches_main(runs, tmp_path):
-    """Regression: with nh3_treatment = "deposition_only" the budget.csv numbers are
-    those of the main branch's code on the same inputs (skipped without it)."""
-    main = Path("/work/main")
-    if not (main / "workbench").is_dir():
-        pytest.skip("no main checkout to compare with")
-    sc = _scenario(tmp_path, "deposition_only")
-    code = ("import sys; from workbench.cli import run_scenario; "
-            f"w, r, _ = run_scenario({str(sc)!r}, {str(tmp_path / 'main')!r}, quiet=True); "
-            "print(w['budget.csv'])")
-    got = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                         env={"PYTHONPATH": str(main), "PATH": "/usr/bin:/bin"}, cwd=main)
-    assert got.returncode == 0, got.stderr[-2000:]
-    theirs = pd.read_csv(got.stdout.strip().splitlines()[-1])
-    ours = runs["deposition_only"][0]
-    cols = ["site", "receptor", "period", "pathway", "species", "flux_kg_ha", "status"]
-    pd.testing.assert_frame_equal(ours[cols].reset_index(drop=True),
-                                  theirs[cols].reset_index(drop=True))
-
-
 def test_tiny_budget_unchanged_by_the_bidirectional_option(tmp_path):
     """No NH3 measured: the option changes nothing (the tiny scenario of test_budget)."""
     from tests.test_budget import _write
