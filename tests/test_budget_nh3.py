@@ -6,9 +6,6 @@ chi_c = (chi_a g_ab + chi_s g_s)/(g_ab + g_s + g_w) and F = g_ab (chi_a - chi_c)
 computed here with pencil-and-paper numbers.  Molar masses from the IUPAC atomic
 weights (N 14.007, H 1.008 g/mol: NH3 17.031 g/mol).  Invented sites.
 """
-import subprocess
-import sys
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
