@@ -1,4 +1,4 @@
-"""Execute the three notebooks headless, as a new user would: every cell, in order.
+"""Execute every notebook of notebooks/ headless, as a new user would: every cell, in order.
 
 Run with the python of the environment under test (`.ci/run` uses a fresh venv made
 from the README's first command).  The notebooks are copied into a temporary folder (so
@@ -18,7 +18,7 @@ from nbclient.exceptions import CellExecutionError
 from workbench.cli import DEMO_SCENARIO
 
 NOTEBOOKS = Path(__file__).resolve().parents[1] / "notebooks"
-NAMES = ("site_budget", "sensitivity", "network_overview")
+NAMES = tuple(sorted(p.stem for p in NOTEBOOKS.glob("*.ipynb")))
 
 
 def main() -> int:
