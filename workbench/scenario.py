@@ -37,6 +37,10 @@ SCHEMA: dict = {
         "reference_state": (str, None, "reference state of mass concentrations when the "
                             "air file states none: 'ambient' or '<T> degC, <p> hPa'"),
     },
+    "compare": {
+        "common_receptor": (str, None, "land-use class on which every site's annual totals "
+                            "are also computed, side by side in common_surface.csv"),
+    },
 }
 
 #: Keys allowed in a [sites.<id>] table: per-site overrides of the catalogue.
@@ -293,6 +297,14 @@ def validate(raw: dict, path=None, text: str = "") -> Scenario:
                             value=data["period"]["resolution"],
                             expected="'month', 'season', 'year' or 'hydro_year'"
                             + suggest(data["period"]["resolution"], ["month", "season", "year", "hydro_year"]))
+    common = data["compare"]["common_receptor"]
+    if common is not None:
+        from .landuse import LAND_USE
+        if common not in LAND_USE:
+            raise ScenarioError("unknown land-use class", file=path,
+                                line=_line_of(lines, "compare", "common_receptor"),
+                                column="compare.common_receptor", value=common,
+                                expected="one of " + ", ".join(LAND_USE) + suggest(common, LAND_USE))
     objects = {}
     fixed = {}
     for section, cls in options.items():

@@ -314,4 +314,65 @@ def exceedance_table(result, catalogue) -> pd.DataFrame:
     t = t.rename(columns={k: f"{k}_eq_ha_yr" for k in ACIDITY_KEYS + (NUTRIENT_KEY,)})
     extra = [f"{k}_eq_ha_yr" for k in ACIDITY_KEYS + (NUTRIENT_KEY,)] + [
         "s_reduction_eq_ha_yr", "n_reduction_eq_ha_yr", "note"]
-    return t[list(EXCEEDANCE_COLUMNS) + extra].reset_index(drop=True)
+    t = t[list(EXCEEDANCE_COLUMNS) + extra].reset_index(drop=True)
+    from .uncertainty import annual_total_draws
+    draws = annual_total_draws(result)
+    if draws is None:
+        return t
+    return pd.concat([t, exceedance_probability(t, draws)], axis=1)
+
+
+#: Quantiles of the draws in exceedance.csv [1] and the suffixes of their columns.
+DRAW_QUANTILES = (0.05, 0.5, 0.95)
+DRAW_SUFFIXES = ("_p05", "_p50", "_p95")
+
+
+def exceedance_probability(table: pd.DataFrame, draws: xr.Dataset) -> pd.DataFrame:
+    """Probability of exceedance and quantiles, from Monte Carlo draws of S and N.
+
+    Parameters
+    ----------
+    table : DataFrame
+        Rows of :func:`exceedance_table` (site, receptor, period and the loads
+        ``cl_*_eq_ha_yr`` [eq ha-1 yr-1]).
+    draws : Dataset
+        ``s_dep_eq_ha_yr``, ``n_dep_eq_ha_yr`` [eq ha-1 yr-1] with dims (draw, site,
+        receptor, period), from
+        :func:`workbench.analysis.uncertainty.annual_total_draws`.
+
+    Returns
+    -------
+    DataFrame
+        Aligned with `table`: ``p_exceed_acidity`` and ``p_exceed_nutrient_n`` (share
+        of the draws whose exceedance is > 0 [1]), the 5, 50 and 95 % quantiles of
+        ``ex_acidity_eq_ha_yr``, ``s_dep_eq_ha_yr`` and ``n_dep_eq_ha_yr``
+        [eq ha-1 yr-1].  NaN where the row has no draws or a draw is NaN.
+
+    Notes
+    -----
+    Every draw goes through :func:`acidity_exceedance` and
+    :func:`nutrient_n_exceedance` at once (arrays of draws x rows); the critical loads
+    themselves are taken as exact.
+    """
+    keys = ["site", "receptor", "period"]
+    flat = draws.stack(row=keys)
+    index = pd.MultiIndex.from_arrays([flat[k].values.astype(str) for k in keys])
+    pos = index.get_indexer(pd.MultiIndex.from_frame(table[keys].astype(str)))
+    have = pos >= 0
+    d = draws.sizes["draw"]
+    s = np.full((d, len(table)), np.nan)
+    n = np.full((d, len(table)), np.nan)
+    s[:, have] = flat["s_dep_eq_ha_yr"].transpose("draw", "row").values[:, pos[have]]
+    n[:, have] = flat["n_dep_eq_ha_yr"].transpose("draw", "row").values[:, pos[have]]
+    cl = [table[f"{k}_eq_ha_yr"].to_numpy(float) for k in ACIDITY_KEYS + (NUTRIENT_KEY,)]
+    ex = acidity_exceedance(s, n, *cl[:3]).exceedance                  # (D, rows)
+    ex_n = nutrient_n_exceedance(n, cl[3])
+    out = {}
+    for name, v in (("p_exceed_acidity", ex), ("p_exceed_nutrient_n", ex_n)):
+        ok = np.isfinite(v).all(0)
+        out[name] = np.where(ok, (np.nan_to_num(v) > 0).mean(0), np.nan)
+    for name, v in (("ex_acidity_eq_ha_yr", ex), ("s_dep_eq_ha_yr", s), ("n_dep_eq_ha_yr", n)):
+        qs = np.quantile(v, DRAW_QUANTILES, axis=0)                    # NaN where any is NaN
+        for qi, suffix in enumerate(DRAW_SUFFIXES):
+            out[name + suffix] = qs[qi]
+    return pd.DataFrame(out, index=table.index)

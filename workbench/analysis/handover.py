@@ -147,3 +147,66 @@ def element_totals(table: pd.DataFrame) -> pd.DataFrame:
             out[f"{el}_total_eq_ha_yr"] = wide[("flux_eq_ha_yr", el)].astype(float)
             out[f"{el}_total_status"] = wide[("status", el)]
     return out.reset_index()
+
+
+#: Totals of the common-surface table (element_pathway).
+COMMON_TOTALS = ("S_wet", "S_dry", "S_total", "N_wet", "N_dry", "N_total")
+
+
+def common_surface_table(result, study, receptor: str) -> pd.DataFrame:
+    """Every site on one receptor surface: annual totals side by side (``common_surface.csv``).
+
+    The study is run again at calendar years with every site given `receptor` as a
+    further receptor (``Study.run(overrides={site: {"receptors": [receptor]}})``, the
+    site's own ``[sites.<id>]`` overrides kept) and that receptor only computed, so
+    that the sites differ by their air, precipitation and weather, not by their land
+    use.  Wet deposition does not depend on the surface; dry deposition does.
+
+    Parameters
+    ----------
+    result : workbench.pipeline.Result
+        The run whose options (wet, dry, budget, fixed Vd) and span are used.
+    study : workbench.pipeline.Study
+    receptor : str
+        A land-use class of :data:`workbench.landuse.LAND_USE`.
+
+    Returns
+    -------
+    DataFrame
+        site, receptor, own_land_use, period (calendar years and ``span``),
+        ``<element>_<pathway>_kg_ha_yr`` for S and N wet, dry and total [kg ha-1 yr-1],
+        ``S_total_eq_ha_yr``, ``N_total_eq_ha_yr`` [eq ha-1 yr-1], ``S_total_status``,
+        ``N_total_status``.
+
+    Raises
+    ------
+    ValueError
+        For a receptor that is not a land-use class.
+    """
+    from ..landuse import LAND_USE
+    if receptor not in LAND_USE:
+        raise ValueError(f"common receptor {receptor!r} is not a land-use class; expected one "
+                         f"of {', '.join(LAND_USE)}")
+    o = result.options
+    cat = study.catalogue()
+    over = {s.id: {**study.site_overrides.get(s.id, {}),
+                   "receptors": list(dict.fromkeys(tuple(s.receptors) + (receptor,)))}
+            for s in cat}
+    start = str(result.years["period_start"].values.min())[:19]
+    end = str(result.years["period_end"].values.max())[:19]
+    run = study.run(o.get("wet"), o.get("dry"), o.get("budget"), o.get("fixed_velocity"),
+                    "year", start, end, overrides=over, receptors=[receptor])
+    t = run.table[run.table["species"] == "all"].copy()
+    t["name"] = t["element"] + "_" + t["pathway"]
+    keys = ["site", "receptor", "period"]
+    kg = t.set_index(keys + ["name"])["flux_kg_ha_yr"].unstack("name")   # NaN rows kept
+    out = pd.DataFrame(index=kg.index)
+    for name in COMMON_TOTALS:
+        out[f"{name}_kg_ha_yr"] = kg[name].astype(float) if name in kg else np.nan
+    tot = element_totals(run.table).set_index(keys)
+    for el in ("S", "N"):
+        for col in (f"{el}_total_eq_ha_yr", f"{el}_total_status"):
+            out[col] = tot[col].reindex(out.index) if col in tot else np.nan
+    out = out.reset_index()
+    out.insert(2, "own_land_use", out["site"].map({s.id: s.land_use for s in cat}))
+    return out

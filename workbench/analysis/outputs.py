@@ -3,7 +3,8 @@
 ``exceedance.csv`` (critical-load exceedance per site, receptor and year, and the span
 mean), ``trends.csv`` (Mann-Kendall and seasonal Kendall trends),
 ``precipitation_annual.csv`` (depth and precipitation-weighted means per site and year)
-and ``quality.csv`` (data quality per site and year); each further
+``quality.csv`` (data quality per site and year) and, with ``[compare]
+common_receptor``, ``common_surface.csv`` (every site on one surface); each further
 analysis adds its file here, so that the run-folder code calls one function.
 """
 from __future__ import annotations
@@ -53,6 +54,12 @@ def write_analysis(result, study, scenario, out, atomic_write) -> dict:
                                                    out / "precipitation_annual.csv", atomic_write)
     q = quality_table(result.years, wet, result.screened)
     written["quality.csv"] = _csv(q, out / "quality.csv", atomic_write)
+    common = (scenario.data.get("compare", {}).get("common_receptor")
+              if scenario is not None and hasattr(scenario, "data") else None)
+    if common:
+        from .handover import common_surface_table
+        written["common_surface.csv"] = _csv(common_surface_table(result, study, common),
+                                             out / "common_surface.csv", atomic_write)
     return written
 
 

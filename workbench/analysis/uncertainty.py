@@ -384,6 +384,8 @@ class BudgetQuantiles:
     years: xr.Dataset
     span: xr.Dataset
     options: UncertaintyOptions
+    #: The draws themselves of the annual S and N totals, see :func:`annual_total_draws`.
+    total_draws: xr.Dataset | None = None
 
 
 def _span_draws(ds, comp, tot):
@@ -451,7 +453,7 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
     year0, n_years = int(years.min()), int(years.max() - years.min() + 1)
     q = np.asarray(QUANTILES)
     out = {}
-    span_c, span_t = [], []
+    span_c, span_t, kept = [], [], []
     for which, lay in sorted(layers.items(), key=lambda kv: kv[0] != "years"):
         if which == "budget" and lay is layers.get("years"):
             out[which] = out["years"]                # a yearly run: the same draws
@@ -473,6 +475,7 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
                 c, t = _span_draws(ds.isel(site=k), comp, tot)
                 span_c.append(np.quantile(c, q, axis=0))
                 span_t.append(np.quantile(t, q, axis=0))
+                kept.append(_annual_draws(tot, t, ds["annual_factor"].values))
         dims = ("quantile", "site", "receptor", "period")
         out[which] = xr.Dataset(
             {"deposition": (dims + ("component",), comp_q, {"units": "mol m-2"}),
@@ -492,7 +495,47 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
                               {"units": "mol m-2 yr-1"})},
         coords={"quantile": q, "site": yds["site"].values, "receptor": yds["receptor"].values,
                 "component": yds["component"].values, "total": list(TOTALS)})
-    return BudgetQuantiles(out.get("budget"), out["years"], span, options)
+    per = [str(p) for p in yds["period"].values] + ["span"]
+    kept = np.stack(kept, 2)                                     # (2, D, S, R, P + 1)
+    draws = xr.Dataset(
+        {f"{e}_dep_eq_ha_yr": (("draw", "site", "receptor", "period"), kept[i],
+                               {"units": "eq ha-1 yr-1"}) for i, e in enumerate("sn")},
+        coords={"draw": np.arange(options.draws), "site": yds["site"].values,
+                "receptor": yds["receptor"].values, "period": per})
+    return BudgetQuantiles(out.get("budget"), out["years"], span, options, draws)
+
+
+def _annual_draws(tot, span_t, annual_factor):
+    """The draws of the S and N totals of one site as yearly rates: (2, D, R, P + 1)
+    [eq ha-1 yr-1], the calendar years then the span mean (``tot`` (D, R, P) [mol m-2],
+    ``span_t`` (D, R, T) [mol m-2 yr-1])."""
+    out = []
+    for e in ("S", "N"):
+        yearly = tot[f"{e}_total"] * annual_factor[None, None, :]
+        both = np.concatenate([yearly, span_t[..., TOTALS.index(f"{e}_total"), None]], -1)
+        out.append(element_deposition_in(both, e, "eq_ha"))
+    return np.stack(out)
+
+
+def annual_total_draws(result) -> xr.Dataset | None:
+    """The Monte Carlo draws of the annual S and N totals of a run, or None.
+
+    Parameters
+    ----------
+    result : workbench.pipeline.Result
+        As returned by :func:`with_uncertainty` (its ``options["uncertainty"]``).
+
+    Returns
+    -------
+    Dataset or None
+        ``s_dep_eq_ha_yr`` and ``n_dep_eq_ha_yr`` [eq ha-1 yr-1] with dims (draw, site,
+        receptor, period), the periods being the calendar years (as in budget.csv) and
+        ``span`` (the mean yearly rate of the years that pass completeness); None when
+        the run carries no draws (``[uncertainty] draws = 0``).  The same draws as the
+        quantiles of budget.csv, not new ones.
+    """
+    q = result.options.get("uncertainty") if hasattr(result, "options") else None
+    return getattr(q, "total_draws", None)
 
 
 # ------------------------------------------------------------------------------ outputs

@@ -1,5 +1,5 @@
-"""Figures of the analyses: the critical load function with the deposition and a
-what-if path, and a trend over the years with its Sen slope and confidence band.
+"""Figures of the analyses: the critical load function with the deposition (and its
+5-95 % range when the run has Monte Carlo draws) and a what-if path, and a trend over the years with its Sen slope and confidence band.
 
 Pure functions: numbers in, plain plotly JSON (``*_spec``) or a plotly Figure out.
 """
@@ -20,7 +20,16 @@ def _num(v) -> float:
     return float(v) if v is not None else float("nan")
 
 
-def clf_spec(loads: dict, s_dep=None, n_dep=None, path=None, title="", mode_text="") -> dict:
+def _range(ranges, name):
+    """(p05, p95) of `name` in a row of exceedance.csv, or None [eq ha-1 yr-1]."""
+    if ranges is None:
+        return None
+    lo, hi = (_num(ranges.get(f"{name}_p{q}")) for q in ("05", "95"))
+    return (lo, hi) if np.isfinite([lo, hi]).all() else None
+
+
+def clf_spec(loads: dict, s_dep=None, n_dep=None, path=None, title="", mode_text="",
+             ranges=None) -> dict:
     """The critical load function of acidity with the deposition and a what-if path.
 
     Parameters
@@ -35,6 +44,12 @@ def clf_spec(loads: dict, s_dep=None, n_dep=None, path=None, title="", mode_text
         ``n_dep_eq_ha_yr``, ``ex_acidity_eq_ha_yr``, ``fraction``).
     title, mode_text : str
         Title, and the label of the cuts' mode shown in the path's legend entry.
+    ranges : mapping, optional
+        A row of ``exceedance.csv`` of a run with ``[uncertainty] draws > 0``:
+        ``s_dep_eq_ha_yr_p05``/``_p95`` and ``n_dep_eq_ha_yr_p05``/``_p95``
+        [eq ha-1 yr-1] become error bars of the deposition point (the 5-95 % range of
+        the Monte Carlo draws), and ``p_exceed_acidity`` [1], if given, goes into its
+        legend entry.
 
     Returns
     -------
@@ -50,8 +65,11 @@ def clf_spec(loads: dict, s_dep=None, n_dep=None, path=None, title="", mode_text
                      "line": {"color": OKABE_ITO["black"], "width": 2},
                      "name": "critical load function (no exceedance inside)",
                      "hovertemplate": "N %{x:.0f}, S %{y:.0f} eq/ha/yr<extra></extra>"})
-    xmax = max(v for v in (c1, cn, _num(n_dep), 1.0) if np.isfinite(v)) * HEADROOM
-    ymax = max(v for v in (cs, _num(s_dep), 1.0) if np.isfinite(v)) * HEADROOM
+    s_rng, n_rng = _range(ranges, "s_dep_eq_ha_yr"), _range(ranges, "n_dep_eq_ha_yr")
+    xmax = max(v for v in (c1, cn, _num(n_dep), (n_rng or (1.0, 1.0))[1], 1.0)
+               if np.isfinite(v)) * HEADROOM
+    ymax = max(v for v in (cs, _num(s_dep), (s_rng or (1.0, 1.0))[1], 1.0)
+               if np.isfinite(v)) * HEADROOM
     if np.isfinite(cn):
         data.append({"type": "scatter", "x": [cn, cn], "y": [0, ymax], "mode": "lines",
                      "line": {"color": OKABE_ITO["bluish_green"], "dash": "dash"},
@@ -77,10 +95,26 @@ def clf_spec(loads: dict, s_dep=None, n_dep=None, path=None, title="", mode_text
                          "name": f"exceedance ends ({100 * float(path['fraction'].iloc[i]):.0f} % "
                                  "of the cuts)"})
     if s_dep is not None and n_dep is not None and np.isfinite([_num(s_dep), _num(n_dep)]).all():
-        data.append({"type": "scatter", "x": [float(n_dep)], "y": [float(s_dep)], "mode": "markers",
-                     "marker": {"size": 12, "color": OKABE_ITO["blue"], "symbol": "circle"},
-                     "name": "deposition",
-                     "hovertemplate": "N %{x:.0f}, S %{y:.0f} eq/ha/yr<extra></extra>"})
+        point = {"type": "scatter", "x": [float(n_dep)], "y": [float(s_dep)], "mode": "markers",
+                 "marker": {"size": 12, "color": OKABE_ITO["blue"], "symbol": "circle"},
+                 "name": "deposition",
+                 "hovertemplate": "N %{x:.0f}, S %{y:.0f} eq/ha/yr<extra></extra>"}
+        for axis, rng, v in (("x", n_rng, float(n_dep)), ("y", s_rng, float(s_dep))):
+            if rng is not None:
+                point[f"error_{axis}"] = {"type": "data", "symmetric": False,
+                                          "array": [max(rng[1] - v, 0.0)],
+                                          "arrayminus": [max(v - rng[0], 0.0)],
+                                          "color": OKABE_ITO["blue"], "thickness": 1.5}
+        if s_rng or n_rng:
+            p = _num(ranges.get("p_exceed_acidity"))
+            point["name"] = ("deposition with the 5-95 % range of the draws"
+                             + (f" (probability of acidity exceedance {p:.2f})"
+                                if np.isfinite(p) else ""))
+            point["hovertemplate"] = ("N %{x:.0f}, S %{y:.0f} eq/ha/yr<br>5-95 %: N "
+                                      + ("{:.0f}-{:.0f}".format(*n_rng) if n_rng else "n/a")
+                                      + ", S " + ("{:.0f}-{:.0f}".format(*s_rng) if s_rng else "n/a")
+                                      + "<extra></extra>")
+        data.append(point)
     layout = {"title": {"text": title or "Critical load function of acidity"},
               "xaxis": {"title": {"text": "N deposition [eq/ha/yr]"}, "range": [0, xmax]},
               "yaxis": {"title": {"text": "S deposition [eq/ha/yr]"}, "range": [0, ymax]},
@@ -89,9 +123,9 @@ def clf_spec(loads: dict, s_dep=None, n_dep=None, path=None, title="", mode_text
 
 
 def clf_figure(loads, s_dep=None, n_dep=None, path=None, title="", mode_text="",
-               template=TEMPLATE):
+               template=TEMPLATE, ranges=None):
     """:func:`clf_spec` as a plotly Figure."""
-    return from_spec(clf_spec(loads, s_dep, n_dep, path, title, mode_text), template)
+    return from_spec(clf_spec(loads, s_dep, n_dep, path, title, mode_text, ranges), template)
 
 
 def trend_spec(years, values, row=None, status=None, title="", unit="kg/ha/yr") -> dict:
