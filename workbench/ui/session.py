@@ -258,7 +258,7 @@ class Session:
         sites = {k: dict(v) for k, v in settings.overrides.items() if v}
         if sites:
             raw["sites"] = copy.deepcopy(sites)
-        for name in ("uncertainty", "sensitivity"):     # not set in the app: kept as given
+        for name in ("uncertainty", "sensitivity", "compare"):  # not set in the app: kept
             if sc.given.get(name):
                 raw[name] = copy.deepcopy(sc.given[name])
         return raw, comments
