@@ -35,7 +35,7 @@ import xarray as xr
 from .pipeline import Result, Study
 from .tables import budget_table, span_table
 
-__all__ = ["run_blocks", "site_blocks", "start_client"]
+__all__ = ["run_blocks", "run_network", "site_blocks", "start_client"]
 
 
 def site_blocks(sites, block_sites=None) -> list:
@@ -292,3 +292,45 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
             fut.release()
             say(f"block {n}/{len(blocks)} done ({len(blocks[i])} sites)")
     return reduce_blocks(done, receptors, positions)
+
+
+#: Largest default block when a cluster is used and no block size is given [sites].
+DEFAULT_MAX_BLOCK = 10
+#: Note of a block run: the hourly velocities are not kept.
+NO_VELOCITIES_NOTE = ("computed in blocks of sites: the hourly velocities were dropped after "
+                      "each block, so velocities.nc is not written (run without --workers, "
+                      "--scheduler and --block-sites to get it)")
+
+
+def run_network(study, wet_options, dry_options, budget_options, fixed_velocity, resolution,
+                start, end, *, sc=None, workers=None, scheduler=None, block_sites=None,
+                progress=None) -> Result:
+    """What ``workbench run --workers/--scheduler/--block-sites`` computes.
+
+    Starts (and closes) a local cluster of `workers` processes, or connects to
+    `scheduler`; without either the blocks run in this process.  The default block size
+    with a cluster is the sites shared out as two blocks per worker, at most
+    :data:`DEFAULT_MAX_BLOCK` sites.
+    """
+    from .errors import WorkbenchError
+    unc = sc.options.get("uncertainty") if sc is not None else None
+    if unc is not None and getattr(unc, "draws", 0):
+        raise WorkbenchError("[uncertainty] draws > 0 needs the whole run's cached stages: "
+                             "run without --workers, --scheduler and --block-sites")
+    client = start_client(workers, scheduler) if (workers or scheduler) else None
+    try:
+        if block_sites is None and client is not None:
+            n_workers = max(1, len(client.scheduler_info().get("workers", {})) or (workers or 1))
+            n_sites = len(study.inputs.catalogue.ids)
+            block_sites = min(DEFAULT_MAX_BLOCK, max(1, -(-n_sites // (2 * n_workers))))
+        result = run_blocks(study, wet_options, dry_options, budget_options, fixed_velocity,
+                            resolution, start, end, block_sites=block_sites, client=client,
+                            progress=progress)
+    finally:
+        if client is not None:
+            cluster = client.cluster if not scheduler else None
+            client.close()
+            if cluster is not None:
+                cluster.close()
+    result.notes = list(result.notes) + [NO_VELOCITIES_NOTE]
+    return result
