@@ -108,10 +108,11 @@ def test_compared_schemes_in_blocks(setup):
     pd.testing.assert_frame_equal(ref.table, got.table, rtol=1e-12, atol=0)
 
 
-def test_blocks_on_a_threaded_local_cluster(setup, whole):
+@pytest.mark.parametrize("workers", [1, 2])   # 1 worker: 4 blocks through a window of 2
+def test_blocks_on_a_threaded_local_cluster(setup, whole, workers):
     distributed = pytest.importorskip("distributed")
     study, args = setup
-    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=False,
+    with distributed.LocalCluster(n_workers=workers, threads_per_worker=1, processes=False,
                                   dashboard_address=None) as cluster, \
             distributed.Client(cluster) as client:
         said = []

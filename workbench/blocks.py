@@ -281,16 +281,31 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
     else:
         from .optional import require
         distributed = require("distributed")
-        futures = {}
-        for i, sites in enumerate(blocks):
+        # at most two blocks per worker in flight: the sliced inputs of the blocks
+        # not yet submitted are not held here all at once
+        window = 2 * max(1, len(client.scheduler_info().get("workers", {})))
+        futures, todo = {}, iter(enumerate(blocks))
+
+        def submit():
+            nxt = next(todo, None)
+            if nxt is None:
+                return None
+            i, sites = nxt
             fut = client.submit(run_block, inputs.subset(sites=sites), site_overrides, args,
                                 keep_velocities, pure=False)
             futures[fut] = i
-        for n, fut in enumerate(distributed.as_completed(futures), 1):
-            i = futures[fut]
+            return fut
+
+        first = [f for f in (submit() for _ in range(window)) if f is not None]
+        queue = distributed.as_completed(first)
+        for n, fut in enumerate(queue, 1):
+            i = futures.pop(fut)
             done[i] = fut.result()      # a failed block raises its error here
             fut.release()
             say(f"block {n}/{len(blocks)} done ({len(blocks[i])} sites)")
+            nxt = submit()
+            if nxt is not None:
+                queue.add(nxt)
     return reduce_blocks(done, receptors, positions)
 
 
