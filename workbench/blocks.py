@@ -291,8 +291,10 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
             if nxt is None:
                 return None
             i, sites = nxt
-            fut = client.submit(run_block, inputs.subset(sites=sites), site_overrides, args,
-                                keep_velocities, pure=False)
+            # sent to a worker as data, not inside the task graph
+            data = client.scatter(inputs.subset(sites=sites), hash=False)
+            fut = client.submit(run_block, data, site_overrides, args, keep_velocities,
+                                pure=False)
             futures[fut] = i
             return fut
 
