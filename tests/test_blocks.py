@@ -167,3 +167,13 @@ def test_missing_distributed_names_the_extra(setup, scenario_file, tmp_path, mon
     assert code == 2
     assert "distributed is not installed" in err and "deposition-workbench[scale]" in err
     assert not (tmp_path / "c").exists() or not any((tmp_path / "c").iterdir())
+
+
+def test_blocks_without_start_and_end_take_the_network_span(setup):
+    """Without start/end the periods come from the span of all inputs, not a block's."""
+    study, args = setup
+    args = args[:5] + (None, None)
+    whole = study.run(*args)
+    got = run_blocks(study, *args, block_sites=1)
+    pd.testing.assert_frame_equal(whole.periods, got.periods)
+    assert_same(whole, got)
