@@ -3,6 +3,7 @@
     python benchmarks/network.py                      # 10 and 100 site-years
     python benchmarks/network.py --sizes 10 100 1000 --max 1000
     python benchmarks/network.py --profile 100        # cProfile of one 100-site-year run
+    python benchmarks/network.py --block-sites 5 --workers 2   # blocks of sites on dask
 
 Inputs are generated into a temporary folder: N/Y invented sites (ids ``n0000``...)
 with Y years each (``--years``, default 2; a size N must be a multiple of Y).  Site i is a
@@ -138,28 +139,36 @@ def _available_mb():
     return float("inf")
 
 
-def child(scenario, out_dir):
-    """Run ``workbench run`` in this process; print wall time [s] and peak RSS [MB] as JSON."""
+def child(scenario, out_dir, extra=()):
+    """Run ``workbench run`` in this process; print wall time [s] and peak RSS [MB] as JSON.
+
+    `extra` are further ``workbench run`` arguments (``--block-sites``, ``--workers``).
+    The worker processes of a local cluster are children of this process: their CPU
+    time and the largest peak RSS among them are reported as ``children_*``.
+    """
     import resource
     sys.path.insert(0, str(ROOT))
     from workbench.cli import main as cli
     t = time.perf_counter()
-    code = cli(["run", str(scenario), "--out", str(out_dir), "--quiet"])
+    code = cli(["run", str(scenario), "--out", str(out_dir), "--quiet", *extra])
     wall = time.perf_counter() - t
     use = resource.getrusage(resource.RUSAGE_SELF)
+    kids = resource.getrusage(resource.RUSAGE_CHILDREN)
     print(json.dumps({"exit_code": code, "wall_s": wall, "cpu_s": use.ru_utime + use.ru_stime,
-                      "peak_rss_mb": use.ru_maxrss / 1024.0}))
+                      "peak_rss_mb": use.ru_maxrss / 1024.0,
+                      "children_cpu_s": kids.ru_utime + kids.ru_stime,
+                      "children_peak_rss_mb": kids.ru_maxrss / 1024.0, "run_args": list(extra)}))
 
 
-def measure(size, years, work):
+def measure(size, years, work, extra=()):
     """Generate a network of `size` site-years and run it in a subprocess; the numbers."""
     n_sites = size // years
     t = time.perf_counter()
     scen = make_network(work / f"net{size}", n_sites, years)
     gen_s = time.perf_counter() - t
     proc = subprocess.run([sys.executable, __file__, "--child", str(scen),
-                           str(work / f"out{size}")], capture_output=True, text=True,
-                          cwd=str(ROOT))
+                           str(work / f"out{size}"), "--child-args", json.dumps(list(extra))],
+                          capture_output=True, text=True, cwd=str(ROOT))
     if proc.returncode != 0:
         return {"site_years": size, "status": f"failed: {proc.stderr.strip()[-400:]}"}
     res = json.loads(proc.stdout.strip().splitlines()[-1])
@@ -208,11 +217,21 @@ def main(argv=None):
     ap.add_argument("--profile", type=int, default=None, help="profile one run of this size")
     ap.add_argument("--top", type=int, default=10)
     ap.add_argument("--json", default=None)
+    ap.add_argument("--block-sites", type=int, default=None,
+                    help="passed to workbench run (sites per block)")
+    ap.add_argument("--workers", type=int, default=None,
+                    help="passed to workbench run (a local dask cluster of N processes)")
     ap.add_argument("--child", nargs=2, default=None, help=argparse.SUPPRESS)
+    ap.add_argument("--child-args", default="[]", help=argparse.SUPPRESS)
     args = ap.parse_args(argv)
     if args.child:
-        child(*args.child)
+        child(*args.child, json.loads(args.child_args))
         return None
+    extra = []
+    if args.block_sites:
+        extra += ["--block-sites", str(args.block_sites)]
+    if args.workers:
+        extra += ["--workers", str(args.workers)]
     work = Path(tempfile.mkdtemp(prefix="wb-network-"))
     rows = []
     try:
@@ -231,13 +250,16 @@ def main(argv=None):
                 row = {"site_years": size, "status": f"not run (needs about {need:.0f} MB, "
                        f"{_available_mb():.0f} MB available)"}
             else:
-                row = measure(size, args.years, work)
+                row = measure(size, args.years, work, extra)
             rows.append(row)
             if row["status"] == "run":
                 print(f"{size:5d} site-years ({row['sites']} sites x {row['years']} years): "
                       f"wall {row['wall_s']:7.1f} s, CPU {row['cpu_s']:7.1f} s, "
                       f"peak RSS {row['peak_rss_mb']:7.0f} MB, "
-                      f"exit {row['exit_code']}  (inputs generated in {row['generate_s']:.1f} s)")
+                      f"exit {row['exit_code']}  (inputs generated in {row['generate_s']:.1f} s)"
+                      + (f"; {' '.join(extra)}: workers' CPU {row['children_cpu_s']:.1f} s, "
+                         f"largest worker peak RSS {row['children_peak_rss_mb']:.0f} MB"
+                         if extra else ""))
             else:
                 print(f"{size:5d} site-years: {row['status']}")
     finally:

@@ -52,8 +52,13 @@ def cmd_check(args) -> int:
     return 0
 
 
-def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=None):
+def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=None,
+                 workers=None, scheduler=None, block_sites=None):
     """Load a scenario, compute its budget and write the run folder.
+
+    With `workers` (a local dask cluster of that many processes), `scheduler` (the
+    address of a running dask scheduler) or `block_sites`, the sites are computed in
+    blocks (:func:`workbench.blocks.run_blocks`) and velocities.nc is not written.
 
     The output folder is checked and locked before anything is computed (a second run
     into it is refused at once); the files go into a temporary sibling that is renamed
@@ -82,9 +87,15 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
             prep = prepare(sc, progress=step)
             study, o = prep.study, sc.options
             p = sc.data["period"]
-            from .comparison import run as run_compared
-            result = run_compared(study, o["wet"], o["dry"], o["budget"], sc.fixed_velocity,
-                                  resolution or p["resolution"], p["start"], p["end"])
+            args = (study, o["wet"], o["dry"], o["budget"], sc.fixed_velocity,
+                    resolution or p["resolution"], p["start"], p["end"])
+            if workers or scheduler or block_sites:
+                from .blocks import run_network
+                result = run_network(*args, sc=sc, workers=workers, scheduler=scheduler,
+                                     block_sites=block_sites, progress=bar.set_postfix_str)
+            else:
+                from .comparison import run as run_compared
+                result = run_compared(*args)
             step("writing")
             written = write_run(result, study, sc, out, progress=bar.set_postfix_str,
                                 folder=folder)
@@ -96,7 +107,8 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
 
 def cmd_run(args) -> int:
     written, _, _ = run_scenario(args.scenario, args.out, args.overwrite, args.quiet,
-                                 args.resolution)
+                                 resolution=args.resolution, workers=args.workers,
+                                 scheduler=args.scheduler, block_sites=args.block_sites)
     print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
     for name in written:
         print(f"  {name}")
@@ -143,6 +155,16 @@ def cmd_sensitivity(args) -> int:
     return 0
 
 
+def _positive(text) -> int:
+    try:
+        n = int(text)
+    except ValueError:
+        n = 0
+    if n < 1:
+        raise argparse.ArgumentTypeError(f"expected a whole number of at least 1, got {text!r}")
+    return n
+
+
 def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(prog="workbench", description="Wet and dry deposition "
                                 "budgets of sulfur and nitrogen.")
@@ -161,6 +183,13 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--quiet", action="store_true", help="no progress bar")
     r.add_argument("--resolution", choices=RESOLUTIONS, default=None,
                    help="reporting periods of budget.csv (default: the scenario's [period])")
+    r.add_argument("--workers", type=_positive, default=None, help="compute blocks of "
+                   "sites on a local dask cluster of N single-threaded worker processes")
+    r.add_argument("--scheduler", default=None, metavar="ADDRESS", help="compute blocks of "
+                   "sites on the dask scheduler at ADDRESS (e.g. tcp://host:8786)")
+    r.add_argument("--block-sites", type=_positive, default=None, metavar="K",
+                   help="sites per block (default: one block, or blocks for the workers); "
+                   "in block mode velocities.nc is not written")
     r.set_defaults(func=cmd_run)
     g = sub.add_parser("sensitivity", help="Sobol indices and a tornado of the budget totals "
                        "([sensitivity] section of the scenario)")

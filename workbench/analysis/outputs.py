@@ -79,6 +79,10 @@ def monthly_result(result, study):
     o = result.options
     if o.get("resolution") == "month":
         return result
+    carried = getattr(result, "monthly_budget", None)    # a block run made it block by block
+    if carried is not None:
+        from types import SimpleNamespace
+        return SimpleNamespace(budget=carried)
     start = str(result.years["period_start"].values.min())[:19]
     end = str(result.years["period_end"].values.max())[:19]
     return study.run(o.get("wet"), o.get("dry"), o.get("budget"), o.get("fixed_velocity"),

@@ -1,0 +1,179 @@
+"""Site blocks: a run in blocks of sites, in process or on dask, equals the whole run.
+
+The reference is the whole in-process run of the same scenario (four sites of the
+invented demo network, one year): the pipeline computes each site on its own, so the
+budget.csv and summary.csv rows (values to 1e-12 relative, statuses exactly) and the
+screened samples must not depend on how the sites are split or where blocks run.
+"""
+from __future__ import annotations
+
+import dataclasses
+import sys
+
+import numpy as np
+import pandas as pd
+import pytest
+import xarray as xr
+
+from ui.demo_subset import write_demo_subset
+from workbench.blocks import NO_VELOCITIES_NOTE, run_blocks, site_blocks
+from workbench.cli import build_parser, main
+from workbench.comparison import run as run_compared
+from workbench.optional import MissingExtraError
+from workbench.preflight import prepare
+from workbench.scenario import load_scenario
+from workbench.tables import summary_table
+from workbench.wet import samples_table
+
+SITES = ("ridge", "fell", "mere", "farm")
+
+
+@pytest.fixture(scope="module")
+def scenario_file(tmp_path_factory):
+    return write_demo_subset(tmp_path_factory.mktemp("blocks"), SITES, 2021, 2021)
+
+
+@pytest.fixture(scope="module")
+def setup(scenario_file):
+    sc = load_scenario(scenario_file)
+    study = prepare(sc).study
+    o, p = sc.options, sc.data["period"]
+    args = (o["wet"], o["dry"], o["budget"], sc.fixed_velocity, p["resolution"], p["start"],
+            p["end"])
+    return study, args
+
+
+@pytest.fixture(scope="module")
+def whole(setup):
+    study, args = setup
+    return study.run(*args)
+
+
+def assert_same(whole, blocks):
+    """budget.csv and summary.csv frames and the screened samples of two runs agree."""
+    assert len(whole.table) > 0
+    pd.testing.assert_frame_equal(whole.table, blocks.table, rtol=1e-12, atol=0)
+    pd.testing.assert_frame_equal(summary_table(whole), summary_table(blocks), rtol=1e-12,
+                                  atol=0)
+    assert (whole.table["status"] == blocks.table["status"]).all()
+    pd.testing.assert_frame_equal(samples_table(whole.screened), samples_table(blocks.screened))
+    assert list(blocks.budget["site"].values) == list(SITES)
+    assert list(blocks.budget["receptor"].values) == list(whole.budget["receptor"].values)
+    np.testing.assert_array_equal(blocks.budget["active"].values, whole.budget["active"].values)
+
+
+def test_site_blocks():
+    assert site_blocks(list("abcde"), 2) == [["a", "b"], ["c", "d"], ["e"]]
+    assert site_blocks(list("abc"), None) == [["a", "b", "c"]]
+    assert site_blocks(list("abc"), 5) == [["a", "b", "c"]]
+    with pytest.raises(ValueError, match="at least 1"):
+        site_blocks(list("abc"), 0)
+
+
+@pytest.mark.parametrize("block_sites", [1, 2, 3])
+def test_blocks_in_process_equal_the_whole_run(setup, whole, block_sites):
+    study, args = setup
+    got = run_blocks(study, *args, block_sites=block_sites)
+    assert_same(whole, got)
+    assert got.velocities is None              # dropped after each block
+    # the counts in the wet and screening attributes are the network's, not a block's
+    assert got.wet.attrs == whole.wet.attrs
+    assert got.screened.attrs == whole.screened.attrs
+    assert got.budget.attrs == whole.budget.attrs
+
+
+def test_blocks_from_inputs_with_site_overrides(setup, whole):
+    study, args = setup
+    got = run_blocks(study.inputs, *args, block_sites=2, site_overrides=study.site_overrides)
+    assert_same(whole, got)
+
+
+def test_kept_velocities_equal_the_whole_run_on_wanted_pairs(setup, whole):
+    from workbench.writers import velocities_dataset
+    study, args = setup
+    got = run_blocks(study, *args, block_sites=2, keep_velocities=True)
+    a, b = velocities_dataset(whole.velocities), velocities_dataset(got.velocities)
+    assert list(a["surface"].values) == list(b["surface"].values)
+    for v in ("vd_SO2", "vd_pSO4", "ra", "friction_velocity"):
+        xr.testing.assert_allclose(a[v], b[v], rtol=1e-12)
+
+
+def test_compared_schemes_in_blocks(setup):
+    study, args = setup
+    dry = dataclasses.replace(args[1], compare_schemes=True)
+    args = (args[0], dry) + args[2:]
+    ref = run_compared(study, *args)
+    got = run_blocks(study, *args, block_sites=1)
+    assert ref.table["scheme"].nunique() > 1
+    pd.testing.assert_frame_equal(ref.table, got.table, rtol=1e-12, atol=0)
+
+
+@pytest.mark.parametrize("workers", [1, 2])   # 1 worker: 4 blocks through a window of 2
+def test_blocks_on_a_threaded_local_cluster(setup, whole, workers):
+    distributed = pytest.importorskip("distributed")
+    study, args = setup
+    with distributed.LocalCluster(n_workers=workers, threads_per_worker=1, processes=False,
+                                  dashboard_address=None) as cluster, \
+            distributed.Client(cluster) as client:
+        said = []
+        got = run_blocks(study, *args, block_sites=1, client=client, progress=said.append)
+    assert_same(whole, got)
+    assert len(said) == len(SITES)
+
+
+def test_blocks_on_worker_processes(setup, whole):
+    distributed = pytest.importorskip("distributed")
+    study, args = setup
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                  dashboard_address=None) as cluster, \
+            distributed.Client(cluster) as client:
+        got = run_blocks(study, *args, block_sites=2, client=client)
+    assert_same(whole, got)
+
+
+def test_cli_flags_parse():
+    a = build_parser().parse_args(["run", "s.toml", "--out", "o", "--workers", "2",
+                                   "--block-sites", "3"])
+    assert (a.workers, a.block_sites, a.scheduler) == (2, 3, None)
+    a = build_parser().parse_args(["run", "s.toml", "--out", "o", "--scheduler",
+                                   "tcp://127.0.0.1:8786"])
+    assert (a.workers, a.block_sites, a.scheduler) == (None, None, "tcp://127.0.0.1:8786")
+    for bad in ("0", "-1", "two"):
+        with pytest.raises(SystemExit):
+            build_parser().parse_args(["run", "s.toml", "--out", "o", "--block-sites", bad])
+
+
+def test_cli_block_run_writes_the_same_tables(scenario_file, tmp_path, capsys):
+    assert main(["run", str(scenario_file), "--out", str(tmp_path / "a"), "--quiet"]) == 0
+    assert main(["run", str(scenario_file), "--out", str(tmp_path / "b"), "--quiet",
+                 "--block-sites", "3"]) == 0
+    for name in ("budget.csv", "summary.csv", "samples.csv"):
+        assert (tmp_path / "a" / name).read_bytes() == (tmp_path / "b" / name).read_bytes()
+    assert (tmp_path / "a" / "velocities.nc").exists()
+    assert not (tmp_path / "b" / "velocities.nc").exists()
+    assert "velocities.nc is not written" in (tmp_path / "b" / "report.html").read_text()
+    assert "velocities.nc is not written" in NO_VELOCITIES_NOTE
+
+
+def test_missing_distributed_names_the_extra(setup, scenario_file, tmp_path, monkeypatch,
+                                             capsys):
+    monkeypatch.setitem(sys.modules, "distributed", None)     # import fails
+    study, args = setup
+    with pytest.raises(MissingExtraError, match=r"deposition-workbench\[scale\]"):
+        run_blocks(study, *args, block_sites=2, client=object())
+    code = main(["run", str(scenario_file), "--out", str(tmp_path / "c"), "--quiet",
+                 "--workers", "2"])
+    err = capsys.readouterr().err
+    assert code == 2
+    assert "distributed is not installed" in err and "deposition-workbench[scale]" in err
+    assert not (tmp_path / "c").exists() or not any((tmp_path / "c").iterdir())
+
+
+def test_blocks_without_start_and_end_take_the_network_span(setup):
+    """Without start/end the periods come from the span of all inputs, not a block's."""
+    study, args = setup
+    args = args[:5] + (None, None)
+    whole = study.run(*args)
+    got = run_blocks(study, *args, block_sites=1)
+    pd.testing.assert_frame_equal(whole.periods, got.periods)
+    assert_same(whole, got)

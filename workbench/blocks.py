@@ -1,0 +1,360 @@
+"""A network in blocks of sites: the same :meth:`Study.run` per block, reduced as it goes.
+
+A run of many sites holds the hourly velocities of every (site, receptor) pair at once
+(50 sites x 7 receptors x 17,543 h were 2.9 GB, half the peak of a 100-site-year run;
+docs/performance.md).  :func:`run_blocks` splits the sites into blocks of
+``block_sites``, builds a :class:`~workbench.pipeline.Study` of each block's inputs
+(:meth:`Inputs.subset`), runs it exactly as a whole run does, and keeps only what a run
+folder needs: the budget and yearly Datasets, the wet and screened Datasets and the
+tables.  The hourly velocities of a block are dropped when the block is done (unless
+``keep_velocities``), so the peak of the computation depends on the block size, not on
+the number of sites; the inputs themselves are still read whole.
+
+With a ``dask.distributed`` client each block is one task: its inputs are sliced here,
+submitted with the block function, and the reduced blocks are gathered as they
+complete.  The blocks are then concatenated along ``site`` in the order of the
+catalogue, so the result does not depend on the block size, the number of workers or
+the order in which blocks finish.
+
+Every site is computed on its own in the pipeline (screening, wet periods, velocities,
+dry fluxes and the budget are per site), so a block run gives the numbers of a whole
+run for every (site, receptor) pair a site asks for (tests/test_blocks.py).  Pairs no
+site asks for (``active`` false) hold no values in block mode (a whole run fills them
+with values of surfaces nobody reported); budget.csv and summary.csv carry the active
+pairs only and are the same.
+"""
+from __future__ import annotations
+
+import dataclasses
+import json
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from .pipeline import Result, Study
+from .tables import budget_table, span_table
+
+__all__ = ["run_blocks", "run_network", "site_blocks", "start_client"]
+
+
+def site_blocks(sites, block_sites=None) -> list:
+    """The site ids in consecutive blocks of at most `block_sites` (None: one block).
+
+    >>> site_blocks(["a", "b", "c"], 2)
+    [['a', 'b'], ['c']]
+    """
+    sites = list(sites)
+    if block_sites is None or block_sites >= len(sites):
+        return [sites] if sites else []
+    if int(block_sites) < 1:
+        raise ValueError(f"block_sites must be at least 1, got {block_sites!r}")
+    n = int(block_sites)
+    return [sites[i:i + n] for i in range(0, len(sites), n)]
+
+
+def run_block(inputs, site_overrides, args: dict, keep_velocities=False) -> dict:
+    """Run one block of sites and reduce it to what a run folder needs.
+
+    Parameters
+    ----------
+    inputs : workbench.io.inputs.Inputs
+        The block's inputs (already restricted to its sites).
+    site_overrides : dict
+        The scenario's ``[sites.<id>]`` tables.
+    args : dict
+        Keyword arguments of :meth:`Study.run` (options, resolution, start, end).
+    keep_velocities : bool
+        Keep the hourly velocities Dataset (large: hourly x sites x receptors).
+
+    Returns
+    -------
+    dict
+        ``budget``, ``years`` (the same object as ``budget`` at yearly resolution),
+        ``screened``, ``wet``, ``velocities`` (or None), ``periods``, ``options``,
+        ``notes`` and ``schemes`` (scheme -> (budget, years) of the other gas schemes
+        when ``compare_schemes`` is set; else empty).
+    """
+    from .comparison import schemes_in_order
+    study = Study(inputs, site_overrides)
+    res = study.run(**args)
+    dry = res.options["dry"]
+    schemes = {}
+    if dry.compare_schemes:
+        for scheme in schemes_in_order(dry)[1:]:
+            other = study.run(**{**args, "dry_options": dataclasses.replace(dry, gas_scheme=scheme)})
+            schemes[scheme] = (other.budget, None if other.years is other.budget else other.years)
+    # the monthly budget the trends of the run folder read, made here while the block's
+    # velocities are cached (else the whole network would be run again at months)
+    monthly = None
+    if args.get("resolution", "year") != "month":
+        monthly = study.run(**{**args, "resolution": "month"}).budget
+    return {"budget": res.budget, "years": None if res.years is res.budget else res.years,
+            "monthly": monthly, "screened": res.screened, "wet": res.wet,
+            "velocities": res.velocities if keep_velocities else None,
+            "periods": res.periods, "options": res.options, "notes": list(res.notes),
+            "schemes": schemes}
+
+
+# ---------------------------------------------------------------- reduction
+def _fill_value(dtype):
+    """The value of a (site, receptor) pair a block has no receptor for."""
+    kind = np.dtype(dtype).kind
+    return {"f": np.nan, "c": np.nan, "b": False, "i": 0, "u": 0, "M": np.datetime64("NaT"),
+            "m": np.timedelta64("NaT")}.get(kind, "")
+
+
+def _on_receptors(ds, receptors):
+    """`ds` on the network's receptor axis (a block has its own sites' receptors only)."""
+    if ds is None or "receptor" not in ds.dims:
+        return ds
+    if list(ds["receptor"].values.astype(str)) == list(receptors):
+        return ds
+    fill = {v: _fill_value(ds[v].dtype) for v in ds.data_vars if "receptor" in ds[v].dims}
+    out = ds.reindex(receptor=list(receptors), fill_value=fill)
+    for v in fill:                      # reindex widens bool and int; keep the dtypes
+        if out[v].dtype != ds[v].dtype and ds[v].dtype.kind in "biu":
+            out[v] = out[v].astype(ds[v].dtype)
+    return out
+
+
+def _combine_attrs(attrs_list, context=None):
+    """One attribute set for the concatenated blocks.
+
+    Options (a name with "option") are the first block's; counts (integers, or JSON
+    objects of numbers) are summed; JSON lists are joined without repeats; anything
+    else is the first block's.
+    """
+    out = {}
+    for key in dict.fromkeys(k for a in attrs_list for k in a):
+        vals = [a[key] for a in attrs_list if key in a]
+        first = vals[0]
+        if "option" in key:             # the options of the run: the same in every block
+            out[key] = first
+            continue
+        if all(isinstance(v, (int, np.integer)) and not isinstance(v, bool) for v in vals):
+            out[key] = int(sum(vals))
+            continue
+        if not all(isinstance(v, str) for v in vals):
+            out[key] = first
+            continue
+        try:
+            parsed = [json.loads(v) for v in vals]
+        except ValueError:
+            out[key] = first
+            continue
+        if all(isinstance(p, list) for p in parsed):
+            seen = []
+            for p in parsed:
+                seen += [x for x in p if x not in seen]
+            out[key] = json.dumps(seen)
+        elif all(isinstance(p, dict) and all(isinstance(x, (int, float)) for x in p.values())
+                 for p in parsed):
+            total = {}
+            for p in parsed:
+                for k, x in p.items():
+                    total[k] = total.get(k, 0) + x
+            out[key] = json.dumps(total)
+        else:
+            out[key] = first
+    return out
+
+
+def _concat(parts, dim, receptors=None):
+    parts = [p if receptors is None else _on_receptors(p, receptors) for p in parts
+             if p is not None]
+    if not parts:
+        return None
+    if len(parts) == 1:
+        return parts[0]
+    return xr.concat(parts, dim=dim, data_vars="minimal", coords="minimal", compat="override",
+                     join="outer" if dim == "sample" else "exact",
+                     combine_attrs=_combine_attrs)
+
+
+def _ordered_samples(screened, positions):
+    """The screened samples in the order of the input file."""
+    if screened is None or positions is None or len(positions) != screened.sizes["sample"]:
+        return screened
+    return screened.isel(sample=np.argsort(positions, kind="stable"))
+
+
+def reduce_blocks(blocks, receptors, sample_positions=None) -> Result:
+    """Concatenate reduced blocks (in catalogue order) into one :class:`Result`.
+
+    Parameters
+    ----------
+    blocks : list of dict
+        :func:`run_block` outputs, in the order of the sites.
+    receptors : list of str
+        The network's receptor surfaces, in the order of a whole run.
+    sample_positions : list of numpy.ndarray, optional
+        Each block's rows of the precipitation input (to keep the file order).
+    """
+    first = blocks[0]
+    budget = _concat([b["budget"] for b in blocks], "site", receptors)
+    years = (budget if first["years"] is None else
+             _concat([b["years"] for b in blocks], "site", receptors))
+    screened = _concat([b["screened"] for b in blocks], "sample")
+    if sample_positions is not None:
+        screened = _ordered_samples(screened, np.concatenate(sample_positions))
+    notes = list(dict.fromkeys(n for b in blocks for n in b["notes"]))
+    result = Result(budget=budget, years=years, screened=screened,
+                    wet=_concat([b["wet"] for b in blocks], "site"),
+                    velocities=_concat([b["velocities"] for b in blocks], "site", receptors),
+                    periods=first["periods"], options=dict(first["options"]), notes=notes)
+    if first.get("monthly") is not None:
+        result.monthly_budget = _concat([b["monthly"] for b in blocks], "site", receptors)
+    if first["schemes"]:
+        tables = [result.table.assign(scheme=first["options"]["dry"].gas_scheme)]
+        for scheme in first["schemes"]:
+            b = _concat([blk["schemes"][scheme][0] for blk in blocks], "site", receptors)
+            y = b if first["schemes"][scheme][1] is None else _concat(
+                [blk["schemes"][scheme][1] for blk in blocks], "site", receptors)
+            span = span_table(budget_table(y))
+            tables.append(pd.concat([budget_table(b), span], ignore_index=True)
+                          .assign(scheme=scheme))
+        result.__dict__["table"] = pd.concat(tables, ignore_index=True)
+    return result
+
+
+# ---------------------------------------------------------------- the runner
+def start_client(workers=None, scheduler=None):
+    """A ``dask.distributed`` client: on `scheduler` (an address) or on a local cluster
+    of `workers` single-threaded processes.  The caller closes it (and its cluster)."""
+    from .optional import require
+    distributed = require("distributed")
+    if scheduler:
+        return distributed.Client(scheduler)
+    cluster = distributed.LocalCluster(n_workers=int(workers), threads_per_worker=1,
+                                       dashboard_address=None)
+    return distributed.Client(cluster)
+
+
+def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_options=None,
+               fixed_velocity=None, resolution="year", start=None, end=None, *,
+               block_sites=None, client=None, site_overrides=None, keep_velocities=False,
+               progress=None) -> Result:
+    """The budget of a network computed in blocks of sites (see the module text).
+
+    Parameters
+    ----------
+    study_or_inputs : Study or Inputs
+        The whole network (a Study brings its site overrides).
+    wet_options, dry_options, budget_options, fixed_velocity, resolution, start, end
+        As for :meth:`workbench.pipeline.Study.run`; the periods are those of the whole
+        network (without `start`/`end`, the span of all its inputs).
+    block_sites : int, optional
+        Sites per block (default: all in one block).
+    client : distributed.Client, optional
+        Run each block as a task on this cluster (default: in this process, in turn).
+    site_overrides : dict, optional
+        The scenario's ``[sites.<id>]`` tables (default: the study's).
+    keep_velocities : bool
+        Keep and concatenate the hourly velocities (memory grows with the sites again).
+    progress : callable, optional
+        Called with a short text after each block.
+
+    Returns
+    -------
+    workbench.pipeline.Result
+        As a whole run's; ``velocities`` is None unless `keep_velocities`, and the
+        pairs no site asks for hold no values.
+    """
+    if isinstance(study_or_inputs, Study):
+        whole = study_or_inputs
+        site_overrides = whole.site_overrides if site_overrides is None else site_overrides
+    else:
+        whole = Study(study_or_inputs, site_overrides)
+    inputs = whole.inputs
+    if start is None or end is None:
+        s0, e0 = whole.span()
+        start = s0 if start is None else start
+        end = e0 if end is None else end
+    args = {"wet_options": wet_options, "dry_options": dry_options,
+            "budget_options": budget_options, "fixed_velocity": fixed_velocity,
+            "resolution": resolution, "start": start, "end": end}
+    receptors = whole.receptors()
+    blocks = site_blocks(inputs.catalogue.ids, block_sites)
+    precip = inputs.precipitation
+    psites = precip["site"].values.astype(str) if precip is not None else None
+    positions = [np.flatnonzero(np.isin(psites, b)) for b in blocks] if precip is not None else None
+    say = progress or (lambda text: None)
+    done = [None] * len(blocks)
+    if client is None:
+        for i, sites in enumerate(blocks):
+            done[i] = run_block(inputs.subset(sites=sites), site_overrides, args, keep_velocities)
+            say(f"block {i + 1}/{len(blocks)} ({len(sites)} sites)")
+    else:
+        from .optional import require
+        distributed = require("distributed")
+        # at most two blocks per worker in flight: the sliced inputs of the blocks
+        # not yet submitted are not held here all at once
+        window = 2 * max(1, len(client.scheduler_info().get("workers", {})))
+        futures, todo = {}, iter(enumerate(blocks))
+
+        def submit():
+            nxt = next(todo, None)
+            if nxt is None:
+                return None
+            i, sites = nxt
+            # sent to a worker as data, not inside the task graph
+            data = client.scatter(inputs.subset(sites=sites), hash=False)
+            fut = client.submit(run_block, data, site_overrides, args, keep_velocities,
+                                pure=False)
+            futures[fut] = i
+            return fut
+
+        first = [f for f in (submit() for _ in range(window)) if f is not None]
+        queue = distributed.as_completed(first)
+        for n, fut in enumerate(queue, 1):
+            i = futures.pop(fut)
+            done[i] = fut.result()      # a failed block raises its error here
+            fut.release()
+            say(f"block {n}/{len(blocks)} done ({len(blocks[i])} sites)")
+            nxt = submit()
+            if nxt is not None:
+                queue.add(nxt)
+    return reduce_blocks(done, receptors, positions)
+
+
+#: Largest default block when a cluster is used and no block size is given [sites].
+DEFAULT_MAX_BLOCK = 10
+#: Note of a block run: the hourly velocities are not kept.
+NO_VELOCITIES_NOTE = ("computed in blocks of sites: the hourly velocities were dropped after "
+                      "each block, so velocities.nc is not written (run without --workers, "
+                      "--scheduler and --block-sites to get it)")
+
+
+def run_network(study, wet_options, dry_options, budget_options, fixed_velocity, resolution,
+                start, end, *, sc=None, workers=None, scheduler=None, block_sites=None,
+                progress=None) -> Result:
+    """What ``workbench run --workers/--scheduler/--block-sites`` computes.
+
+    Starts (and closes) a local cluster of `workers` processes, or connects to
+    `scheduler`; without either the blocks run in this process.  The default block size
+    with a cluster is the sites shared out as two blocks per worker, at most
+    :data:`DEFAULT_MAX_BLOCK` sites.
+    """
+    from .errors import WorkbenchError
+    unc = sc.options.get("uncertainty") if sc is not None else None
+    if unc is not None and getattr(unc, "draws", 0):
+        raise WorkbenchError("[uncertainty] draws > 0 needs the whole run's cached stages: "
+                             "run without --workers, --scheduler and --block-sites")
+    client = start_client(workers, scheduler) if (workers or scheduler) else None
+    try:
+        if block_sites is None and client is not None:
+            n_workers = max(1, len(client.scheduler_info().get("workers", {})) or (workers or 1))
+            n_sites = len(study.inputs.catalogue.ids)
+            block_sites = min(DEFAULT_MAX_BLOCK, max(1, -(-n_sites // (2 * n_workers))))
+        result = run_blocks(study, wet_options, dry_options, budget_options, fixed_velocity,
+                            resolution, start, end, block_sites=block_sites, client=client,
+                            progress=progress)
+    finally:
+        if client is not None:
+            cluster = client.cluster if not scheduler else None
+            client.close()
+            if cluster is not None:
+                cluster.close()
+    result.notes = list(result.notes) + [NO_VELOCITIES_NOTE]
+    return result
