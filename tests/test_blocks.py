@@ -147,8 +147,9 @@ def test_cli_block_run_writes_the_same_tables(scenario_file, tmp_path, capsys):
     assert main(["run", str(scenario_file), "--out", str(tmp_path / "a"), "--quiet"]) == 0
     assert main(["run", str(scenario_file), "--out", str(tmp_path / "b"), "--quiet",
                  "--block-sites", "3"]) == 0
-    for name in ("budget.csv", "summary.csv", "samples.csv"):
-        assert (tmp_path / "a" / name).read_bytes() == (tmp_path / "b" / name).read_bytes()
+    for name in ("budget.csv", "summary.csv", "samples.csv", "exceedance.csv", "trends.csv",
+                 "quality.csv", "precipitation_annual.csv"):
+        assert (tmp_path / "a" / name).read_bytes() == (tmp_path / "b" / name).read_bytes(), name
     assert (tmp_path / "a" / "velocities.nc").exists()
     assert not (tmp_path / "b" / "velocities.nc").exists()
     assert "velocities.nc is not written" in (tmp_path / "b" / "report.html").read_text()

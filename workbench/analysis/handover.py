@@ -50,7 +50,9 @@ def precipitation_table(wet) -> pd.DataFrame:
     out["ph_of_pwm_h"] = flat("pH_pwm")
     out["status"] = flat("status")
     out["completeness_reasons"] = flat("completeness_reasons")
-    return out
+    # rows by site, then period: the same file whatever order the wet chain held the sites
+    # in (a run in site blocks concatenates them in catalogue order)
+    return out.sort_values(["site", "period"], kind="stable", ignore_index=True)
 
 
 def _reasons_by_year(screened) -> pd.DataFrame:
