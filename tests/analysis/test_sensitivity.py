@@ -152,3 +152,71 @@ def test_scenario_saved_from_the_apps_keeps_the_analysis_sections(tiny, tmp_path
     back = load_scenario(path)
     assert back.options["uncertainty"] == sc.options["uncertainty"]
     assert back.options["sensitivity"] == sc.options["sensitivity"]
+
+
+def _variant(tiny, tmp_path):
+    from workbench.pipeline import Study
+    from workbench.scenario import load_scenario
+    sc, _, _, _ = tiny
+    src = sc.path.parent
+    for name in ("sites.toml", "precip.csv", "scenario.toml"):
+        (tmp_path / name).write_text((src / name).read_text())
+    air = pd.read_csv(src / "air.csv", comment="#")
+    air["NH3 [ug/m3]"] = [4.0, 6.0, 2.0, 5.0]                 # invented
+    (tmp_path / "air.csv").write_text("# reference_state: ambient\n" + air.to_csv(index=False))
+    met = pd.read_csv(src / "met.csv")
+    hour = pd.to_datetime(met["time"]).dt.hour
+    met["solar_radiation [W/m2]"] = np.where((hour >= 8) & (hour <= 16), 500.0, 0.0)
+    met["temperature [degC]"] = 15.0
+    met.to_csv(tmp_path / "met.csv", index=False)
+    vsc = load_scenario(tmp_path / "scenario.toml")
+    base = _base(vsc)
+    base["dry"] = dataclasses.replace(base["dry"], seasonal_category=1)
+    base["fixed_velocity"] = {k: v for k, v in vsc.fixed_velocity.items() if k not in ("SO2", "NH3")}
+    return Study.from_scenario(vsc), base
+
+
+def _row(t, element, quantity, factor):
+    return t[(t["element"] == element) & (t["quantity"] == quantity)
+             & (t["factor"] == factor)].iloc[0]
+
+
+def test_rc_scale_and_nh3_gamma_factors_move_the_dry_totals(tiny, tmp_path):
+    study, base = _variant(tiny, tmp_path)
+    opt = S.SensitivityOptions(factors={"rc_scale_SO2": [], "rc_scale_NH3": (0.5, 2.0),
+                                        "nh3_gamma_grass": (0.0, 5000.0)})
+    assert opt.factors["rc_scale_SO2"] == (0.5, 2.0)            # the default range
+    t = S.tornado(study, base, opt, KW)
+    so2 = _row(t, "S", "dry", "rc_scale_SO2")
+    # more surface resistance, less deposition (Vd = 1/(Ra + Rb + k Rc))
+    assert so2["output_low"] > so2["output_base"] > so2["output_high"]
+    assert (so2["low"], so2["high"], so2["base"]) == ("0.5", "2.0", "scenario")
+    assert _row(t, "N", "dry", "rc_scale_SO2")["output_high"] == pytest.approx(
+        _row(t, "N", "dry", "rc_scale_SO2")["output_base"], rel=1e-12)   # no N in SO2
+    nh3 = _row(t, "N", "dry", "rc_scale_NH3")
+    assert nh3["output_low"] > nh3["output_base"] > nh3["output_high"]
+    assert _row(t, "S", "dry", "rc_scale_NH3")["output_high"] == pytest.approx(
+        _row(t, "S", "dry", "rc_scale_NH3")["output_base"], rel=1e-12)
+    # a larger emission potential, a larger compensation point: less net NH3 deposition
+    gam = _row(t, "N", "dry", "nh3_gamma_grass")
+    assert gam["output_high"] < gam["output_low"]
+    assert gam["output_high"] < gam["output_base"]
+    sob = S.sobol(study, base, dataclasses.replace(opt, samples=8), KW)
+    n_dry = sob[(sob["element"] == "N") & (sob["quantity"] == "dry")].set_index("factor")
+    assert set(n_dry.index) == set(opt.factors)
+    assert n_dry.loc["rc_scale_SO2", "ST"] == pytest.approx(0.0, abs=1e-9)   # no N in SO2
+
+
+def test_new_engine_factors_change_the_dry_options_and_refuse_unknown_names():
+    from workbench.drydep import DryOptions
+    dry = S.apply_engine(DryOptions(), {"rc_scale_O3": 2.0, "nh3_gamma_crops": 800.0})
+    assert dry.rc_scale == {"O3": 2.0}
+    assert dry.nh3_emission_potential == {"crops": 800.0}
+    assert dry.nh3_treatment == "bidirectional"              # the factor switches it on
+    assert S.apply_engine(DryOptions(), {"nh3_gamma_crops": None}) == DryOptions()
+    with pytest.raises(ValueError, match="unknown gas in factor 'rc_scale_XY'"):
+        S.SensitivityOptions(factors={"vd_SO2": (0.5, 1.5), "rc_scale_XY": (0.5, 2.0)})
+    with pytest.raises(ValueError, match="unknown land-use class in factor 'nh3_gamma_lawn'"):
+        S.SensitivityOptions(factors={"vd_SO2": (0.5, 1.5), "nh3_gamma_lawn": (0.0, 10.0)})
+    with pytest.raises(ValueError, match="must be > 0"):
+        S.SensitivityOptions(factors={"vd_SO2": (0.5, 1.5), "rc_scale_SO2": (0.0, 2.0)})

@@ -11,7 +11,14 @@ Factors (scenario section ``[sensitivity]``, table ``factors``: name -> range):
   of :meth:`workbench.pipeline.Study.run`): ``wetness_rule`` (a list of rules, drawn
   with equal probability), ``fine_fraction_<particle>`` [1] and ``fine_mmd_<particle>``
   [m] of a particle's fine mode, ``z0_<land use>`` [m] the roughness length of a
-  receptor class (``DryOptions.roughness``).
+  receptor class (``DryOptions.roughness``), ``rc_scale_<gas>`` [1] a multiplier of a
+  gas's surface resistance (``DryOptions.rc_scale``; [0.5, 2.0] when named with ``[]``),
+  ``nh3_gamma_<land use>`` [1] the stomatal NH3 emission potential Gamma_s of a class
+  (``DryOptions.nh3_emission_potential``).  ``nh3_gamma_*`` switches the bidirectional
+  NH3 model on (``nh3_treatment = "bidirectional"``) in every run where it has a value,
+  so its low and high ends compare with each other, not with a deposition-only base;
+  a site's own Gamma_s for the class (sites.toml, or a ``"<site>/<class>"`` key) still
+  wins over the factor there.
 
 Saltelli's scheme (Sobol sequences, first-order and total indices) and the
 estimators are SALib's (Herman and Usher 2017, J. Open Source Softw. 2(9), 97;
@@ -65,6 +72,8 @@ def apply_engine(dry, values: dict):
     """DryOptions with the engine factors set (name -> value)."""
     modes = dict(dry.particle_modes)
     rough = dict(dry.roughness)
+    rc_scale = dict(dry.rc_scale)
+    gamma = dict(dry.nh3_emission_potential)
     changes = {}
     for name, v in values.items():
         kind = factor_kind(name)
@@ -82,7 +91,13 @@ def apply_engine(dry, values: dict):
         elif kind == "z0":
             lu = name[len("z0_"):]
             rough[lu] = (v, (rough.get(lu) or (None, None))[1])
-    return dataclasses.replace(dry, particle_modes=modes, roughness=rough, **changes)
+        elif kind == "rc_scale":
+            rc_scale[name[len("rc_scale_"):]] = v
+        elif kind == "nh3_gamma":                      # the factor switches the model on
+            gamma[name[len("nh3_gamma_"):]] = v
+            changes["nh3_treatment"] = "bidirectional"
+    return dataclasses.replace(dry, particle_modes=modes, roughness=rough, rc_scale=rc_scale,
+                               nh3_emission_potential=gamma, **changes)
 
 
 def linear_outputs(layer, site: int, values: dict, n: int) -> dict:

@@ -17,6 +17,9 @@ OUTPUTS = (("S", "wet", "S_wet"), ("S", "dry", "S_dry"), ("S", "total", "S_total
            ("S+N", "potential_acidity", "potential_acidity"))
 LINEAR = ("gauge_catch", "precip_conc", "air_conc") + tuple(f"vd_{sp}" for sp in DRY_SPECIES)
 WETNESS = ("met", "inferred", "always_dry", "always_wet")
+#: Range of an ``rc_scale_<gas>`` factor named with an empty range: a factor of 2 either
+#: way (our choice, common practice for a resistance known to within about a factor 2).
+RC_SCALE_RANGE = (0.5, 2.0)
 
 
 def _default_factors() -> dict:
@@ -42,7 +45,7 @@ class SensitivityOptions:
         Seed of the Sobol sequence's scrambling and of the bootstrap.
     factors : dict
         factor name -> [low, high] (a uniform range) or, for ``wetness_rule``, a list
-        of rules.  Default: the Vd of every dry species over +-1 GSD of the
+        of rules; ``rc_scale_<gas>`` named with ``[]`` takes [0.5, 2.0].  Default: the Vd of every dry species over +-1 GSD of the
         ``[uncertainty]`` defaults, gauge catch and the concentrations +-10 %.
     sites : list
         Sites to analyse (empty: every site).
@@ -64,6 +67,9 @@ class SensitivityOptions:
             object.__setattr__(self, name, int(v))
         if self.samples < 2 or self.samples & (self.samples - 1):
             raise ValueError(f"SensitivityOptions.samples = {self.samples} must be a power of 2")
+        object.__setattr__(self, "factors", {
+            k: (RC_SCALE_RANGE if not len(v) and str(k).startswith("rc_scale_") else v)
+            for k, v in self.factors.items()})
         if len(self.factors) < 2:
             raise ValueError("SensitivityOptions.factors needs at least 2 factors")
         for name, rng in self.factors.items():
@@ -78,6 +84,9 @@ class SensitivityOptions:
                     or not 0 <= rng[0] < rng[1]):
                 raise ValueError(f"SensitivityOptions.factors.{name} = {list(rng)} must be "
                                  "[low, high] with 0 <= low < high")
+            if kind == "rc_scale" and not rng[0] > 0:
+                raise ValueError(f"SensitivityOptions.factors.{name}: a multiplier of Rc "
+                                 "must be > 0")
             if kind == "fine_fraction" and rng[1] > 1:
                 raise ValueError(f"SensitivityOptions.factors.{name}: a fraction is at most 1")
 
@@ -96,7 +105,8 @@ class SensitivityOptions:
 
 
 def factor_kind(name: str) -> str:
-    """``linear``, ``wetness_rule``, ``fine_fraction``, ``fine_mmd`` or ``z0``."""
+    """``linear``, ``wetness_rule``, ``fine_fraction``, ``fine_mmd``, ``z0``,
+    ``rc_scale`` or ``nh3_gamma``."""
     if name in LINEAR:
         return "linear"
     if name == "wetness_rule":
@@ -109,6 +119,19 @@ def factor_kind(name: str) -> str:
             return prefix[:-1]
     if name.startswith("z0_"):
         return "z0"
+    if name.startswith("rc_scale_"):
+        from ..species import AIR_GASES
+        if name[len("rc_scale_"):] not in AIR_GASES:
+            raise ValueError(f"unknown gas in factor {name!r}; expected one of "
+                             f"{', '.join(AIR_GASES)}")
+        return "rc_scale"
+    if name.startswith("nh3_gamma_"):
+        from ..landuse import LAND_USE
+        if name[len("nh3_gamma_"):] not in LAND_USE:
+            raise ValueError(f"unknown land-use class in factor {name!r}; expected one of "
+                             f"{', '.join(LAND_USE)}")
+        return "nh3_gamma"
     raise ValueError(f"unknown sensitivity factor {name!r}; expected one of "
                      f"{', '.join(LINEAR)}, wetness_rule, fine_fraction_<particle>, "
-                     "fine_mmd_<particle>, z0_<land use>")
+                     "fine_mmd_<particle>, z0_<land use>, rc_scale_<gas>, "
+                     "nh3_gamma_<land use>")

@@ -117,7 +117,7 @@ _MICROMET_OPTIONS = ("roughness", "ustar_floor", "ra_cap", "ra_min_height_z0",
 _STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule")
 #: Options of the gases, besides those of steps 1-5.
 _GAS_OPTIONS = ("gas_scheme", "gases", "components", "nh3_treatment", "hno3_rc_floor",
-                "nh3_emission_potential", "nh3_acid_ratio")
+                "nh3_emission_potential", "nh3_acid_ratio", "rc_scale")
 
 #: What steps 1-4 hand on (the cached result of the surface layer), and step 5.
 _MICROMET_OUT = ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "cloud",
@@ -393,6 +393,9 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             snow_cover=snow, hno3_rc_floor=opt.hno3_rc_floor)
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
             comps = _gas.surface_resistances(scheme, opt.gases, state)
+            for g, k in opt.rc_scale.items():      # sensitivity knob: k Rc (default 1)
+                if g in comps:
+                    comps[g] = {**comps[g], "rc": float(k) * comps[g]["rc"]}
             rbs = _gas.quasi_laminar_resistances(opt.gases, us_r, temp, pres)
             flat = {}
             for g in opt.gases:

@@ -192,6 +192,13 @@ class DryOptions:
     nh3_acid_ratio : float
         Molar ratio (2 SO2 + HNO3)/NH3 of the cuticular resistance (Massad et al.
         2010); 1 by default (our choice). [-]
+    rc_scale : dict
+        gas -> multiplier of that gas's surface resistance Rc [1], applied to the
+        scheme's Rc (either scheme, after the HNO3 floor) before Vd = 1/(Ra + Rb + k Rc);
+        the paths of Rc (``components``) stay as the scheme gives them.  A sensitivity
+        knob: no published default, 1 (an absent gas) leaves Rc alone.  The
+        bidirectional NH3 model uses its own stomatal and cuticular paths, which this
+        does not scale (only its leafless hours use the scaled Rc).
     components : bool
         Return every path of Rc per gas (memory: about seven arrays per gas).
     """
@@ -220,6 +227,7 @@ class DryOptions:
     nh3_acid_ratio: float = 1.0
     hno3_rc_floor: bool = True
     compare_schemes: bool = False
+    rc_scale: dict = field(default_factory=dict)
     components: bool = True
 
     def __post_init__(self):
@@ -253,6 +261,11 @@ class DryOptions:
                                  "a value >= 0")
         if not self.nh3_acid_ratio > 0:
             raise ValueError("nh3_acid_ratio must be > 0")
+        from ..species import AIR_GASES
+        for gas, k in self.rc_scale.items():
+            if gas not in AIR_GASES or isinstance(k, bool) or not float(k) > 0:
+                raise ValueError(f"rc_scale: {gas!r} = {k!r}; expected a gas of "
+                                 f"{', '.join(AIR_GASES)} and a multiplier > 0")
         sc = self.seasonal_category
         if sc is not None:
             cats = [sc] if isinstance(sc, int) else list(sc)
