@@ -29,16 +29,13 @@ cost N (2 + m) engine runs at most, not N (k + m + 2).
 from __future__ import annotations
 
 import dataclasses
-from dataclasses import asdict, dataclass, field
 
 import numpy as np
 import pandas as pd
 
-from ..budget import PARTICLES
 from .layer import DRY_SPECIES, linear_layer
-from .sensitivity_options import (LINEAR, OUTPUTS, WETNESS, SensitivityOptions,  # noqa: F401
-                                  _default_factors, factor_kind)
-from .uncertainty import DEFAULT_VD_GSD, SiteNoise, component_draws, totals_of
+from .sensitivity_options import OUTPUTS, SensitivityOptions, factor_kind
+from .uncertainty import SiteNoise, component_draws, totals_of
 
 def _salib():
     try:
@@ -206,23 +203,14 @@ def sobol(study, base_options: dict, options: SensitivityOptions, run_kwargs=Non
     x = sample.sample(prob, options.samples, calc_second_order=False, seed=options.seed)
     y, coords = evaluate(study, base_options, options, x, run_kwargs, progress)
     rows = []
-    sites, recs, pers = coords["site"], coords["receptor"], coords["period"]
-    for s in range(len(sites)):
-        if options.sites and sites[s] not in options.sites:
+    for cell, (s, r, p, q), (el, quantity, _) in _cells(coords, options):
+        v = y[:, s, r, p, q]
+        if not np.all(np.isfinite(v)) or np.ptp(v) <= 1e-12 * np.abs(v).max():
             continue
-        for r in range(len(recs)):
-            if options.receptors and recs[r] not in options.receptors:
-                continue
-            for p in range(len(pers)):
-                for q, (el, quantity, _) in enumerate(OUTPUTS):
-                    v = y[:, s, r, p, q]
-                    if not np.all(np.isfinite(v)) or np.ptp(v) <= 1e-12 * np.abs(v).max():
-                        continue
-                    si = analyze.analyze(prob, v, calc_second_order=False, seed=options.seed)
-                    for i, name in enumerate(prob["names"]):
-                        rows.append((sites[s], recs[r], pers[p], el, quantity, name,
-                                     si["S1"][i], si["S1_conf"][i], si["ST"][i],
-                                     si["ST_conf"][i]))
+        si = analyze.analyze(prob, v, calc_second_order=False, seed=options.seed)
+        for i, name in enumerate(prob["names"]):
+            rows.append((*cell, el, quantity, name, si["S1"][i], si["S1_conf"][i],
+                         si["ST"][i], si["ST_conf"][i]))
     return pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
                                        "factor", "S1", "S1_conf", "ST", "ST_conf"])
 
@@ -266,6 +254,25 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
     x = np.array(x)
     y, coords = evaluate(study, base_options, options, x, run_kwargs, progress)
     rows = []
+    for cell, (s, r, p, q), (el, quantity, _) in _cells(coords, options):
+        conv = ((lambda v: v) if el == "S+N" else
+                (lambda v, e=el: element_deposition_in(v, e, "kg_ha")))
+        b = conv(y[0, s, r, p, q])
+        if not np.isfinite(b):
+            continue
+        for i, nm in enumerate(names):
+            lo, hi = y[1 + 2 * i, s, r, p, q], y[2 + 2 * i, s, r, p, q]
+            rows.append((*cell, el, quantity, nm, _label(nm, options, x[1 + 2 * i, i]),
+                         _label(nm, options, x[2 + 2 * i, i]), _label(nm, options, base[i]),
+                         conv(lo), conv(hi), b))
+    return pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
+                                       "factor", "low", "high", "base", "output_low",
+                                       "output_high", "output_base"])
+
+
+def _cells(coords, options):
+    """Each (site, receptor, period) asked for by `options` and each output of
+    :data:`OUTPUTS`: yields ((site, receptor, period), (s, r, p, q) indices, output)."""
     sites, recs, pers = coords["site"], coords["receptor"], coords["period"]
     for s in range(len(sites)):
         if options.sites and sites[s] not in options.sites:
@@ -274,21 +281,8 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
             if options.receptors and recs[r] not in options.receptors:
                 continue
             for p in range(len(pers)):
-                for q, (el, quantity, _) in enumerate(OUTPUTS):
-                    conv = ((lambda v: v) if el == "S+N" else
-                            (lambda v, e=el: element_deposition_in(v, e, "kg_ha")))
-                    b = conv(y[0, s, r, p, q])
-                    if not np.isfinite(b):
-                        continue
-                    for i, nm in enumerate(names):
-                        lo, hi = y[1 + 2 * i, s, r, p, q], y[2 + 2 * i, s, r, p, q]
-                        rows.append((sites[s], recs[r], pers[p], el, quantity, nm,
-                                     _label(nm, options, x[1 + 2 * i, i]),
-                                     _label(nm, options, x[2 + 2 * i, i]),
-                                     _label(nm, options, base[i]), conv(lo), conv(hi), b))
-    return pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
-                                       "factor", "low", "high", "base", "output_low",
-                                       "output_high", "output_base"])
+                for q, out in enumerate(OUTPUTS):
+                    yield (sites[s], recs[r], pers[p]), (s, r, p, q), out
 
 
 def _label(name, options, x):
