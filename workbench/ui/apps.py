@@ -62,7 +62,10 @@ class SiteExplorer(widgets.VBox):
     controls : dict
         Assumption key -> widget.
     figs : dict
-        Name -> FigureWidget (``budget`` and the names of :data:`TABS`).
+        Name -> FigureWidget (``budget`` and the names of :data:`TABS` but
+        :data:`LAZY_TABS`).
+    schemes : workbench.ui.scheme_tab.SchemeTab
+        The "gas schemes" tab (its own figures, drawn when the tab is open).
     latency_s : float
         Time of the last change, from the control to the updated figures [s].
     """
@@ -281,7 +284,8 @@ class SiteExplorer(widgets.VBox):
         after = self._current_totals()
         self.change_w.value = html.escape(change_line(self._before, after, self.unit_w.value))
         self._totals = after
-        names = TABS if all_tabs else [TABS[self.tabs.selected_index or 0]]
+        names = ([n for n in TABS if n not in LAZY_TABS] if all_tabs  # those: when opened
+                 else [TABS[self.tabs.selected_index or 0]])
         for name in names:
             self._draw_tab(name)
 

@@ -142,9 +142,21 @@ def budget_difference_figure(table, site, receptor, period="span", template=TEMP
 COMPARED_TOTALS = ("S_dry", "S_total", "N_dry", "N_total")
 
 
-def in_years(vd: "xarray.Dataset", start, end):
-    """The hours of a velocities Dataset inside [start, end) (an hour is labelled by its
-    end, so the hours labelled in (start, end]); start and end are ISO dates."""
+def in_years(vd, start, end):
+    """The hours of a velocities Dataset inside [start, end).
+
+    Parameters
+    ----------
+    vd : xarray.Dataset
+        Hourly velocities (an hour labelled by its end, so the hours labelled in
+        (start, end] are kept); values keep their units (Vd in [m s-1]).
+    start, end : str
+        ISO dates [UTC].
+
+    Returns
+    -------
+    xarray.Dataset
+    """
     t = vd["time"].values
     keep = (t > np.datetime64(start)) & (t <= np.datetime64(end))
     return vd.isel(time=np.flatnonzero(keep))
