@@ -52,3 +52,20 @@ def test_budget_difference_from_a_compared_table():
     with pytest.raises(ValueError, match="compare_schemes"):
         fs.budget_difference(t.drop(columns="scheme"), "a", "grass")
     assert np.isfinite(wide.to_numpy()).all()
+
+
+def test_spread_sentence_by_hand():
+    """A made-up table: dry N 10 -> 12.3 (+23 %), dry S 2 -> 1.9 (-5 %)."""
+    t = pd.DataFrame({"element": ["N", "S"], "wesely1989": [10.0, 2.0],
+                      "zhang2003": [12.3, 1.9]}, index=["N dry", "S dry"])
+    t["difference"] = t["zhang2003"] - t["wesely1989"]
+    t["percent"] = 100 * t["difference"] / t["wesely1989"]
+    s = fs.spread_sentence(t)
+    assert s == ("Dry N differs by 23 % and dry S by 5 % between the two published gas "
+                 "schemes (zhang2003 minus wesely1989: +2.30 kg N ha-1 yr-1, "
+                 "-0.10 kg S ha-1 yr-1).")
+    t.loc["N dry", ["wesely1989", "percent"]] = [0.0, np.nan]
+    assert fs.spread_sentence(t).startswith("Dry S differs by 5 %")
+    spec = fs.budget_change_spec(t, "a", "grass")
+    assert spec["data"][0]["y"] == ["S dry", "N dry"]
+    assert spec["data"][0]["text"] == ["-5 %", ""]

@@ -18,13 +18,16 @@ from . import figures, figures_dry, figures_wet
 from .assumptions import ASSUMPTIONS, Settings
 from .controls import (Progress, caution_box, figure_widget, make_control, open_with_progress,
                        refresh, set_quietly, table_html)
+from .scheme_tab import SchemeTab
 from .session import Session, output_dir
 from .palette import TEMPLATE
 from .summaries import UNITS, change_line, excluded_samples, mean_totals
 
 #: Tabs of the site explorer below the budget: name -> what the figure needs.
 TABS = ("monthly fluxes", "deposition velocity", "resistances", "ion balance",
-        "capture efficiency", "excluded samples")
+        "capture efficiency", "excluded samples", "gas schemes")
+#: Tabs drawn only when opened (the other gas scheme is computed for them).
+LAZY_TABS = ("gas schemes",)
 #: Titles of the velocity tabs when no velocities were computed.
 NO_VELOCITIES = {"deposition velocity": "no deposition velocities (fixed or no met)",
                  "resistances": "no resistances (fixed velocities or no met)"}
@@ -59,7 +62,10 @@ class SiteExplorer(widgets.VBox):
     controls : dict
         Assumption key -> widget.
     figs : dict
-        Name -> FigureWidget (``budget`` and the names of :data:`TABS`).
+        Name -> FigureWidget (``budget`` and the names of :data:`TABS` but
+        :data:`LAZY_TABS`).
+    schemes : workbench.ui.scheme_tab.SchemeTab
+        The "gas schemes" tab (its own figures, drawn when the tab is open).
     latency_s : float
         Time of the last change, from the control to the updated figures [s].
     """
@@ -100,15 +106,18 @@ class SiteExplorer(widgets.VBox):
         self.result = self._run()
         self.figs = {"budget": figure_widget(self._figure("budget", TEMPLATE))}
         for name in TABS:
-            self.figs[name] = figure_widget(self._figure(name, TEMPLATE))
-            self._drawn[name] = self._tab_key(name)
+            if name not in LAZY_TABS:
+                self.figs[name] = figure_widget(self._figure(name, TEMPLATE))
+                self._drawn[name] = self._tab_key(name)
+        self.schemes = SchemeTab(self)
         self.figs["budget"].add_class("wb-budget")
         self._totals = self._current_totals()
         self.change_w.value = html.escape(change_line(None, self._totals, self.unit_w.value))
         self.excluded_w.value = self._excluded_html()
-        pages = [self.figs[n] for n in TABS[:-1]]
-        pages.append(widgets.VBox([self.figs[TABS[-1]], self.excluded_w]))
-        self.tabs = widgets.Tab(pages)
+        pages = {n: self.figs.get(n) for n in TABS}
+        pages["excluded samples"] = widgets.VBox([self.figs["excluded samples"], self.excluded_w])
+        pages["gas schemes"] = self.schemes.page
+        self.tabs = widgets.Tab([pages[n] for n in TABS])
         for i, n in enumerate(TABS):
             self.tabs.set_title(i, n)
         self.progress.done("first run done")
@@ -250,6 +259,8 @@ class SiteExplorer(widgets.VBox):
         return None
 
     def _draw_tab(self, name, force=False):
+        if name == "gas schemes":
+            return self.schemes.draw()
         if name not in self.figs:
             return
         key = self._tab_key(name)
@@ -273,7 +284,8 @@ class SiteExplorer(widgets.VBox):
         after = self._current_totals()
         self.change_w.value = html.escape(change_line(self._before, after, self.unit_w.value))
         self._totals = after
-        names = TABS if all_tabs else [TABS[self.tabs.selected_index or 0]]
+        names = ([n for n in TABS if n not in LAZY_TABS] if all_tabs  # those: when opened
+                 else [TABS[self.tabs.selected_index or 0]])
         for name in names:
             self._draw_tab(name)
 

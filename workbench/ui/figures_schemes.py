@@ -135,3 +135,119 @@ def scheme_vd(vd_by_scheme: dict, site, receptor, gases=GASES, template=TEMPLATE
 def budget_difference_figure(table, site, receptor, period="span", template=TEMPLATE):
     """The figure of :func:`budget_difference_spec` (plotly Figure)."""
     return from_spec(budget_difference_spec(table, site, receptor, period), template)
+
+
+# ---------------------------------------------------------------------- site explorer
+#: Totals of the budget compared between schemes (names of ``Result.years["total"]``).
+COMPARED_TOTALS = ("S_dry", "S_total", "N_dry", "N_total")
+
+
+def in_years(vd, start, end):
+    """The hours of a velocities Dataset inside [start, end).
+
+    Parameters
+    ----------
+    vd : xarray.Dataset
+        Hourly velocities (an hour labelled by its end, so the hours labelled in
+        (start, end] are kept); values keep their units (Vd in [m s-1]).
+    start, end : str
+        ISO dates [UTC].
+
+    Returns
+    -------
+    xarray.Dataset
+    """
+    t = vd["time"].values
+    keep = (t > np.datetime64(start)) & (t <= np.datetime64(end))
+    return vd.isel(time=np.flatnonzero(keep))
+
+
+def scheme_budget_table(years_by_scheme: dict, site, receptor, unit="kg/ha/yr") -> pd.DataFrame:
+    """Budget of each gas scheme and its difference, mean over the years.
+
+    Parameters
+    ----------
+    years_by_scheme : dict
+        scheme -> yearly budget (``Result.years``); the first is the reference (A), the
+        second the one compared (B).
+    site, receptor : str
+    unit : str
+        A key of :data:`workbench.ui.summaries.UNITS`.
+
+    Returns
+    -------
+    pandas.DataFrame
+        One row per total (``S dry``, ``S total``, ``N dry``, ``N total``) then per dry
+        component (``dry SO2`` ...); columns ``element``, one per scheme [unit],
+        ``difference`` (B minus A) [unit] and ``percent`` (of A) [%].
+    """
+    from .summaries import component_rates, mean_totals
+    schemes = list(years_by_scheme)
+    if len(schemes) != 2:
+        raise ValueError(f"two schemes are compared, got {schemes}")
+    cols, element = {}, {}
+    for scheme, ds in years_by_scheme.items():
+        tot = mean_totals(ds, site, receptor, None, unit)["value"]
+        comp = component_rates(ds, site, receptor, None, unit)
+        comp = comp[comp["pathway"] == "dry"]
+        dry = comp.groupby(["element", "species"], sort=False)["value"].mean()
+        vals = {}
+        for name in COMPARED_TOTALS:
+            label = name.replace("_", " ")
+            vals[label] = float(tot.get(name, np.nan))
+            element[label] = name.split("_")[0]
+        for (el, sp), v in dry.items():
+            vals[f"dry {sp}"] = float(v)
+            element[f"dry {sp}"] = el
+        cols[scheme] = pd.Series(vals)
+    out = pd.DataFrame(cols)
+    a, b = schemes
+    out.insert(0, "element", pd.Series(element))
+    out["difference"] = out[b] - out[a]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        out["percent"] = np.where(out[a] != 0, 100.0 * out["difference"] / out[a], np.nan)
+    return out
+
+
+def spread_sentence(table: pd.DataFrame, unit="kg/ha/yr") -> str:
+    """One plain sentence on how far the two schemes' dry N and dry S lie apart.
+
+    `table` as :func:`scheme_budget_table` gives it.
+    """
+    from .summaries import axis_text
+    a, b = [c for c in table.columns if c not in ("element", "difference", "percent")]
+    known = [(el, table.loc[f"{el} dry", "percent"], table.loc[f"{el} dry", "difference"])
+             for el in ("N", "S") if np.isfinite(table.loc[f"{el} dry", "percent"])]
+    if not known:
+        return (f"Dry N and S cannot be compared between the two published gas schemes "
+                f"(none under {a}).")
+    words = [f"Dry {el} differs by {abs(p):.0f} %" if i == 0 else f"dry {el} by {abs(p):.0f} %"
+             for i, (el, p, _) in enumerate(known)]
+    amounts = [f"{d:+.2f} {axis_text(unit, element=el)}" for el, _, d in known]
+    return (f"{' and '.join(words)} between the two published gas schemes "
+            f"({b} minus {a}: {', '.join(amounts)}).")
+
+
+def budget_change_spec(table: pd.DataFrame, site, receptor, unit="kg/ha/yr") -> dict:
+    """Spec of horizontal bars: budget of scheme B minus scheme A, each total and dry
+    component [unit], with the percentage of A beside each bar."""
+    from .summaries import axis_text
+    a, b = [c for c in table.columns if c not in ("element", "difference", "percent")]
+    rows = list(table.index)[::-1]                        # the totals on top
+    t = table.loc[rows]
+    x = [None if not np.isfinite(v) else float(v) for v in t["difference"]]
+    text = ["" if not np.isfinite(p) else f"{p:+.0f} %" for p in t["percent"]]
+    custom = [[float(t.loc[r, a]), float(t.loc[r, b]), axis_text(unit, element=t.loc[r, "element"])]
+              for r in rows]
+    colours = [SCHEME_COLOURS.get(b, "#999999") if (v or 0) >= 0 else SCHEME_COLOURS.get(a, "#999999")
+               for v in x]
+    trace = {"type": "bar", "orientation": "h", "y": rows, "x": x, "text": text,
+             "textposition": "outside", "name": f"{b} minus {a}", "customdata": custom,
+             "marker": {"color": colours},
+             "hovertemplate": (f"%{{y}}: {a} %{{customdata[0]:.3g}}, {b} %{{customdata[1]:.3g}} "
+                               f"%{{customdata[2]}}; difference %{{x:.3g}} (%{{text}})<extra></extra>")}
+    return {"data": [trace], "layout": {
+        "height": 60 + 26 * len(rows), "showlegend": False,
+        "title": {"text": f"{site}, {receptor}: budget under {b} minus under {a}"},
+        "xaxis": {"title": {"text": axis_text(unit)}, "zeroline": True},
+        "margin": {"l": 90}}}

@@ -181,6 +181,30 @@ class Session:
             self._results.popitem(last=False)
         return res
 
+    def run_schemes(self, settings: Settings, site, first_year, last_year, receptor,
+                    chosen=None) -> dict:
+        """The run of the chosen gas scheme and of the other one (yearly, one receptor).
+
+        Parameters
+        ----------
+        chosen : Result, optional
+            The chosen scheme's run when the caller has it (not run again).
+
+        Returns
+        -------
+        dict
+            scheme -> ``Result``, the chosen scheme (``settings.dry.gas_scheme``) first.
+        """
+        from ..comparison import schemes_in_order
+        out = {}
+        for scheme in schemes_in_order(settings.dry)[:2]:
+            if scheme == settings.dry.gas_scheme and chosen is not None:
+                out[scheme] = chosen
+                continue
+            s = settings.replace(dry=dataclasses.replace(settings.dry, gas_scheme=scheme))
+            out[scheme] = self.run(s, site, first_year, last_year, "year", receptor)
+        return out
+
     def sweep(self, key, values, settings: Settings, site, first_year, last_year, receptor,
               unit="kg/ha/yr", progress=None) -> pd.DataFrame:
         """Totals for each value of one assumption, the others as in `settings`.

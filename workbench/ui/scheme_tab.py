@@ -1,0 +1,102 @@
+"""The "gas schemes" tab of the site explorer: both published gas schemes side by side.
+
+Two published surface-resistance schemes for gases (Wesely 1989; Zhang et al. 2003),
+both defensible, give different deposition velocities for the same surface and hour.
+The tab shows, for the site, receptor and years on screen and the assumptions in
+force, the seasonal mean Vd of each gas under both schemes, the budget under the other
+scheme minus the budget under the chosen one, and one sentence stating the spread.
+
+The other scheme is computed only while the tab is open (the explorer draws the open
+tab only), so the explorer's other tabs cost what they cost without it.
+"""
+from __future__ import annotations
+
+import html
+
+import ipywidgets as widgets
+
+from . import figures, figures_schemes as fs
+from .controls import figure_widget, refresh, table_html
+from .palette import TEMPLATE
+
+#: Text of the tab before it is first opened.
+NOT_YET = "opens with the tab (computes the other gas scheme)"
+#: What the tab is about, above its figures.
+CAPTION = ("Two published gas schemes, both defensible, give different deposition "
+           "velocities for the same surface and hour; the spread below is a structural "
+           "uncertainty of dry deposition that no option within one scheme shows. "
+           "A is the scheme chosen (<code>[dry] gas_scheme</code>), B the other one.")
+
+
+class SchemeTab:
+    """The page of the tab and how to draw it for an explorer.
+
+    Parameters
+    ----------
+    app : workbench.ui.apps.SiteExplorer
+        Gives the session, settings, site, receptor, years, unit and its last run.
+    width : int
+        Width of the figures [px].
+
+    Attributes
+    ----------
+    figs : dict
+        ``vd`` (seasonal Vd by scheme) and ``budget`` (B minus A) FigureWidgets.
+    sentence_w, table_w : ipywidgets.HTML
+        The sentence on the spread and the table of both budgets.
+    page : ipywidgets.VBox
+    table : pandas.DataFrame or None
+        The last budget table of :func:`figures_schemes.scheme_budget_table`.
+    runs : dict
+        scheme -> Result of the last drawing.
+    """
+
+    def __init__(self, app, width=660):
+        self.app = app
+        self.width = width
+        empty = {"data": [], "layout": {"title": {"text": NOT_YET}, "width": width,
+                                        "height": 200}}
+        self.figs = {"vd": figure_widget(figures.from_spec(empty, TEMPLATE)),
+                     "budget": figure_widget(figures.from_spec(empty, TEMPLATE))}
+        self.sentence_w = widgets.HTML("")
+        self.sentence_w.add_class("wb-scheme-spread")
+        self.table_w = widgets.HTML("")
+        self.page = widgets.VBox([widgets.HTML(f"<p style='max-width:{width}px'>{CAPTION}</p>"),
+                                  self.sentence_w, self.figs["vd"], self.figs["budget"],
+                                  self.table_w])
+        self.table = None
+        self.runs = {}
+        self._drawn = None
+
+    def _key(self):
+        a = self.app
+        return (a.settings.key(), a.site, a.years, a.receptor_w.value, a.unit_w.value)
+
+    def _sized(self, spec):
+        return {**spec, "layout": {**spec.get("layout", {}), "width": self.width}}
+
+    def draw(self, force=False):
+        """Compute the other scheme (cached by the session) and update the page."""
+        a = self.app
+        key = self._key()
+        if not force and key == self._drawn:
+            return
+        site, rec, unit = a.site, a.receptor_w.value, a.unit_w.value
+        self.runs = a.session.run_schemes(a.settings, site, *a.years, rec, chosen=a.result)
+        vel = {s: r.velocities for s, r in self.runs.items()}
+        if any(v is None for v in vel.values()):
+            vd_spec = {"data": [], "layout": {"title": {
+                "text": "no deposition velocities (fixed or no met)"}}}
+        else:
+            start, end = a.session.bounds(*a.years)
+            vd_spec = fs.scheme_vd_spec({s: fs.in_years(v, start, end) for s, v in vel.items()},
+                                        site, rec)
+        refresh(self.figs["vd"], self._sized(vd_spec))
+        self.table = fs.scheme_budget_table({s: r.years for s, r in self.runs.items()},
+                                            site, rec, unit)
+        refresh(self.figs["budget"], self._sized(fs.budget_change_spec(self.table, site, rec,
+                                                                        unit)))
+        self.sentence_w.value = f"<b>{html.escape(fs.spread_sentence(self.table, unit))}</b>"
+        shown = self.table.drop(columns="element").reset_index(names=f"[{unit}]")
+        self.table_w.value = table_html(shown.rename(columns={"percent": "percent (%)"}))
+        self._drawn = key
