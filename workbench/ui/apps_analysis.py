@@ -77,6 +77,10 @@ class CriticalLoadsExplorer(widgets.VBox):
                           widgets.HBox([self.site_w, self.receptor_w, self.year_w]),
                           widgets.HBox([widgets.VBox(list(self.cut_w.values())), self.mode_w]),
                           self.range_w, self.progress, self.text_w, self.fig, self.table_w])
+        from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
+        self.figure_export = FigureExport(
+            lambda: {f"{self.site_w.value} {self.year_w.value}": self.fig}, "critical-loads")
+        self.children = (*self.children, self.figure_export)
         self._load()
 
     def _on_site(self, change):
