@@ -57,7 +57,9 @@ class FigureExport(widgets.HBox):
         self.message_w = widgets.HTML("")
         self.written: list = []
         self.button_w.on_click(lambda _: self.export())
-        super().__init__([self.format_w, self.button_w, self.message_w])
+        # wraps: a long message goes under the button, never past the app's width
+        super().__init__([self.format_w, self.button_w, self.message_w],
+                         layout=widgets.Layout(flex_flow="row wrap", max_width="100%"))
 
     def export(self, fmt: str | None = None) -> list:
         """Write every figure as ``<folder>/<prefix>-<name>.<fmt>``; returns the paths.
