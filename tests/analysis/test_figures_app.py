@@ -73,3 +73,37 @@ def test_network_overview_has_trend_and_exceedance_columns(analysis_scenario):
                             950.0, 357.0, 1420.0)
     assert a.loc["ridge", "ex_acidity_eq_ha_yr"] == pytest.approx(float(ex.exceedance))
     assert "Trends of the annual totals" in app.analysis_w.value
+
+
+def test_explorer_range_switch_puts_error_bars_and_probability(analysis_scenario):
+    """Switched on (the scenario asks for no draws), the point gets the 5-95 % range of the
+    draws as error bars and the statement names the probability of exceedance; both agree
+    with exceedance_probability on the same draws."""
+    import pandas as pd
+
+    from workbench.analysis.exceedance import exceedance_probability
+    from workbench.ui.apps_analysis import OFFERED_DRAWS, CriticalLoadsExplorer
+    from workbench.ui.session import Session
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = CriticalLoadsExplorer(Session.open(analysis_scenario), site="ridge")
+        assert not app.range_w.value and str(OFFERED_DRAWS) in app.range_w.description
+        point = next(t for t in app.fig.data if t.name == "deposition")
+        assert point.error_x.array is None and "probability" not in app.statement
+        app.range_w.value = True
+    point = next(t for t in app.fig.data if t.name.startswith("deposition with the 5-95 %"))
+    draws = app.total_draws()
+    assert draws.sizes["draw"] == OFFERED_DRAWS
+    row = {"site": "ridge", "receptor": app.receptor_w.value, "period": app.year_w.value,
+           **{f"{k}_eq_ha_yr": v for k, v in LOADS.items()}}
+    ref = exceedance_probability(pd.DataFrame([row]), draws).iloc[0]
+    x, y = point.x[0], point.y[0]
+    assert x - point.error_x.arrayminus[0] == pytest.approx(ref["n_dep_eq_ha_yr_p05"])
+    assert x + point.error_x.array[0] == pytest.approx(ref["n_dep_eq_ha_yr_p95"])
+    assert y - point.error_y.arrayminus[0] == pytest.approx(ref["s_dep_eq_ha_yr_p05"])
+    assert y + point.error_y.array[0] == pytest.approx(ref["s_dep_eq_ha_yr_p95"])
+    assert ref["s_dep_eq_ha_yr_p95"] > ref["s_dep_eq_ha_yr_p05"]
+    assert f"probability of acidity exceedance {ref['p_exceed_acidity']:.2f}" in app.statement
+    assert app.statement in app.draw()
+    app.range_w.value = False
+    assert "probability" not in app.statement

@@ -77,6 +77,9 @@ class SobolExplorer(widgets.VBox):
                           head, widgets.HBox([self.output_w, self.year_w, self.samples_w]),
                           widgets.HBox([self.run_w, self.progress]), self.note_w, self.bar_w,
                           self.fig])
+        from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
+        self.figure_export = FigureExport(lambda: {"indices": self.fig}, "sobol")
+        self.children = (*self.children, self.figure_export)
         if run:
             self.run()
 

@@ -122,6 +122,10 @@ class SiteExplorer(widgets.VBox):
             self.tabs.set_title(i, n)
         self.progress.done("first run done")
         super().__init__(self._layout())
+        from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
+        self.figure_export = FigureExport(
+            lambda: {f"{self.site} {k}": f for k, f in self.figs.items()}, "site-explorer")
+        self.children = (*self.children, self.figure_export)
         self._wire()
 
     # ------------------------------------------------------------------ layout

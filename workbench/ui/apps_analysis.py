@@ -14,6 +14,10 @@ from .controls import Progress, caution_box, figure_widget, open_with_progress, 
 from .figures_analysis import clf_spec
 from .session import Session
 
+#: Draws of the Monte Carlo the explorer offers when the scenario asks for none [1]
+#: (the factors are the defaults of :class:`~workbench.analysis.uncertainty.UncertaintyOptions`).
+OFFERED_DRAWS = 200
+
 #: Cuts when the explorer opens [1].
 FIRST_CUTS = {"S": 0.5, "NOx": 0.5, "NHx": 0.5}
 #: Columns of the path shown under the figure.
@@ -59,13 +63,24 @@ class CriticalLoadsExplorer(widgets.VBox):
         self.text_w = widgets.HTML("")
         self.table_w = widgets.HTML("")
         self.fig = figure_widget(clf_spec({}))
+        self.unc_options = self._uncertainty_options(session)
+        self.range_w = widgets.Checkbox(
+            value=(session.scenario.options.get("uncertainty") or self.unc_options).draws > 0,
+            description=f"show the 5-95 % range (Monte Carlo, {self.unc_options.draws} draws)",
+            indent=False, layout=widgets.Layout(width="auto"))
+        self._draws = None
         self.site_w.observe(self._on_site, "value")
-        for w in (self.receptor_w, self.year_w, self.mode_w, *self.cut_w.values()):
+        for w in (self.receptor_w, self.year_w, self.mode_w, self.range_w,
+                  *self.cut_w.values()):
             w.observe(lambda c: self.draw(), "value")
         super().__init__([widgets.HTML("<h3>Critical loads and what-if cuts</h3>"), caution_box(),
                           widgets.HBox([self.site_w, self.receptor_w, self.year_w]),
                           widgets.HBox([widgets.VBox(list(self.cut_w.values())), self.mode_w]),
-                          self.progress, self.text_w, self.fig, self.table_w])
+                          self.range_w, self.progress, self.text_w, self.fig, self.table_w])
+        from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
+        self.figure_export = FigureExport(
+            lambda: {f"{self.site_w.value} {self.year_w.value}": self.fig}, "critical-loads")
+        self.children = (*self.children, self.figure_export)
         self._load()
 
     def _on_site(self, change):
@@ -80,6 +95,7 @@ class CriticalLoadsExplorer(widgets.VBox):
         self.progress.start(f"budget of {self.site_w.value}")
         result = self.session.run(self.session.baseline, self.site_w.value, *self.years,
                                   resolution="year")
+        self.result, self._draws = result, None
         self.parts = group_deposition(result.years)
         labels = [str(p) for p in self.parts["period"].values]
         self.year_w.unobserve_all("value")
@@ -88,6 +104,43 @@ class CriticalLoadsExplorer(widgets.VBox):
         self.year_w.observe(lambda c: self.draw(), "value")
         self.progress.done("ready")
         self.draw()
+
+    @staticmethod
+    def _uncertainty_options(session):
+        """The scenario's ``[uncertainty]`` when it asks for draws, else its factors (or
+        the defaults) with :data:`OFFERED_DRAWS` draws."""
+        import dataclasses
+
+        from ..analysis.uncertainty import UncertaintyOptions
+        opt = session.scenario.options.get("uncertainty") or UncertaintyOptions()
+        return opt if opt.draws > 0 else dataclasses.replace(opt, draws=OFFERED_DRAWS)
+
+    def total_draws(self):
+        """Monte Carlo draws of the shown site's annual S and N totals (computed once per
+        site and years; the site's study only) [eq ha-1 yr-1], see
+        :func:`workbench.analysis.uncertainty.monte_carlo`."""
+        if self._draws is None:
+            from ..analysis.uncertainty import monte_carlo
+            self.progress.start(f"Monte Carlo of {self.site_w.value} "
+                                f"({self.unc_options.draws} draws)")
+            study = self.session.study_for(self.site_w.value, *self.years)
+            q = monte_carlo(self.result, study, self.unc_options,
+                            overrides=self.session.baseline.overrides, years_only=True)
+            self._draws = q.total_draws
+            self.progress.done("ready")
+        return self._draws
+
+    def ranges(self, loads, sel) -> dict | None:
+        """The exceedance.csv-like row of the shown site-year with the 5-95 % range of S and
+        N deposition and the probability of exceedance, or None when the range is off."""
+        if not self.range_w.value:
+            return None
+        import pandas as pd
+
+        from ..analysis.exceedance import ACIDITY_KEYS, NUTRIENT_KEY, exceedance_probability
+        row = {**sel, **{f"{k}_eq_ha_yr": float(loads.get(k, np.nan))
+                         for k in ACIDITY_KEYS + (NUTRIENT_KEY,)}}
+        return exceedance_probability(pd.DataFrame([row]), self.total_draws()).iloc[0].to_dict()
 
     def loads(self) -> dict:
         site = self.session.study.catalogue()[self.site_w.value]
@@ -114,16 +167,35 @@ class CriticalLoadsExplorer(widgets.VBox):
         ex = acidity_exceedance(first["s_dep_eq_ha_yr"], first["n_dep_eq_ha_yr"],
                                 loads["cl_max_s"], loads["cl_min_n"], loads["cl_max_n"])
         nut = nutrient_n_exceedance(first["n_dep_eq_ha_yr"], loads.get("cl_nut_n", np.nan))
-        self.statement = plain_statement(parts, cuts, {"cl_nut_n": np.nan, **loads}, mode, where)
+        row = self.ranges(loads, sel)
+        self.range_text = "" if row is None else _range_text(row, self.unc_options.draws)
+        self.statement = (plain_statement(parts, cuts, {"cl_nut_n": np.nan, **loads}, mode, where)
+                          + self.range_text)
         self.text_w.value = (
             f"<p>Deposition S {first['s_dep_eq_ha_yr']:.0f}, N {first['n_dep_eq_ha_yr']:.0f} "
             f"eq/ha/yr: acidity exceedance {float(ex.exceedance):.0f} eq/ha/yr "
             f"({html.escape(REGIONS[int(ex.region)])}); nutrient-N exceedance "
-            f"{float(nut):.0f} eq/ha/yr.</p><p><b>{html.escape(self.statement)}</b></p>")
+            f"{float(nut):.0f} eq/ha/yr.</p>"
+            f"<p><b>{html.escape(self.statement)}</b></p>")
         refresh(self.fig, clf_spec(loads, first["s_dep_eq_ha_yr"], first["n_dep_eq_ha_yr"],
-                                   self.path, where, MODES[mode]))
+                                   self.path, where, MODES[mode], ranges=row))
         self.table_w.value = table_html(self.path[list(PATH_COLUMNS)])
         return self.statement
+
+
+def _range_text(row: dict, draws: int) -> str:
+    """The 5-95 % range and the probabilities of exceedance of a row of
+    :func:`workbench.analysis.exceedance.exceedance_probability`, in words."""
+    def pair(name):
+        lo, hi = row.get(f"{name}_p05", np.nan), row.get(f"{name}_p95", np.nan)
+        return f"{lo:.0f}-{hi:.0f}" if np.isfinite([lo, hi]).all() else "n/a"
+    out = (f" 5-95 % range of {draws} Monte Carlo draws: S {pair('s_dep_eq_ha_yr')}, "
+           f"N {pair('n_dep_eq_ha_yr')} eq/ha/yr;")
+    for name, what in (("p_exceed_acidity", "acidity"), ("p_exceed_nutrient_n", "nutrient-N")):
+        p = row.get(name, np.nan)
+        out += (f" probability of {what} exceedance {p:.2f};" if np.isfinite(p)
+                else f" probability of {what} exceedance not known;")
+    return out.rstrip(";") + "."
 
 
 def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":

@@ -87,6 +87,9 @@ class SensitivityExplorer(widgets.VBox):
                           self.key_w, widgets.HBox([self.range_w, self.steps_w]),
                           widgets.HBox([self.run_w, self.progress]), self.note_w, self.fig,
                           self.table_w])
+        from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
+        self.figure_export = FigureExport(lambda: {"curves": self.fig}, "sensitivity")
+        self.children = (*self.children, self.figure_export)
         if run:
             self.run()
 
@@ -184,6 +187,9 @@ class NetworkOverview(widgets.VBox):
                           rankings, self.apart_w, self.analysis_w],
                          layout=widgets.Layout(width="100%"))
         self.add_class("wb-network")
+        from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
+        self.figure_export = FigureExport(lambda: self.figs, "network")
+        self.children = (*self.children, self.figure_export)
 
     def table(self, unit=None) -> pd.DataFrame:
         """Annual totals of every site on its own surface (see :func:`network_table`)."""

@@ -1,0 +1,89 @@
+"""One control shared by the apps: write every figure of the app to a file.
+
+:class:`FigureExport` is a format dropdown and a button; the button writes each figure
+the app shows into :func:`workbench.ui.session.output_dir` through
+:func:`workbench.ui.export.export_figure` and says where.  When PNG or SVG export
+cannot run (kaleido or a Chrome/Chromium missing), the figure is written as a
+self-contained HTML file instead, and the message says so.
+"""
+from __future__ import annotations
+
+import html
+import re
+from pathlib import Path
+from typing import Callable
+
+import ipywidgets as widgets
+
+from .export import FORMATS, ExportError, export_figure
+from .session import output_dir
+
+
+def file_stem(*parts) -> str:
+    """A file name stem from words: lower case, runs of other characters as one ``-``."""
+    text = "-".join(str(p) for p in parts if str(p))
+    return re.sub(r"[^a-z0-9]+", "-", text.lower()).strip("-") or "figure"
+
+
+class FigureExport(widgets.HBox):
+    """Format dropdown + button writing every figure of an app into the output folder.
+
+    Parameters
+    ----------
+    figures : callable
+        Returns ``{name: figure}`` (plotly Figure, FigureWidget or ``*_spec`` dict) of
+        what the app shows now; called at each click, so the files hold the current state.
+    prefix : str
+        First part of the file names (e.g. the app's name), followed by each figure's name.
+    folder : callable, optional
+        Returns the folder to write into (default :func:`output_dir`, read at each
+        click so that ``$WORKBENCH_OUTPUT`` set later is honoured).
+
+    Attributes
+    ----------
+    written : list of Path
+        The files of the last export.
+    """
+
+    def __init__(self, figures: Callable[[], dict], prefix: str,
+                 folder: Callable[[], Path] = output_dir):
+        self._figures, self.prefix, self._folder = figures, prefix, folder
+        self.format_w = widgets.Dropdown(options=list(FORMATS), value="png",
+                                         description="figures as",
+                                         layout=widgets.Layout(width="180px"))
+        self.button_w = widgets.Button(description="Export figures", icon="image",
+                                       tooltip="write every figure of this app into the "
+                                               "output folder")
+        self.message_w = widgets.HTML("")
+        self.written: list = []
+        self.button_w.on_click(lambda _: self.export())
+        # wraps: a long message goes under the button, never past the app's width
+        super().__init__([self.format_w, self.button_w, self.message_w],
+                         layout=widgets.Layout(flex_flow="row wrap", max_width="100%"))
+
+    def export(self, fmt: str | None = None) -> list:
+        """Write every figure as ``<folder>/<prefix>-<name>.<fmt>``; returns the paths.
+
+        A figure that cannot be written as PNG/SVG is written as HTML (noted in the
+        message); files of the same name are replaced.
+        """
+        fmt = fmt or self.format_w.value
+        folder = Path(self._folder())
+        folder.mkdir(parents=True, exist_ok=True)
+        written, fallback = [], []
+        for name, fig in self._figures().items():
+            path = folder / f"{file_stem(self.prefix, name)}.{fmt}"
+            try:
+                written.append(export_figure(fig, path))
+            except ExportError as exc:
+                written.append(export_figure(fig, path.with_suffix(".html")))
+                fallback.append(str(exc))
+        self.written = written
+        text = (f"{len(written)} figure{'s' if len(written) != 1 else ''} written to "
+                f"{html.escape(str(folder))}: "
+                + ", ".join(html.escape(p.name) for p in written))
+        if fallback:
+            text += (f"<br><span style='color:#D55E00'>as HTML instead of {fmt.upper()}: "
+                     f"{html.escape(fallback[0])}</span>")
+        self.message_w.value = text
+        return written
