@@ -233,9 +233,12 @@ def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":
             t = tr[tr["element"] == el] if len(tr) else tr
             if len(t):
                 r = t.iloc[0]
-                row[f"{el}_trend"] = (f"{r['sen_slope_per_yr']:+.3g} per yr (p {r['p_value']:.2g}"
-                                      + ("" if r["valid"] else f", not valid: {r['n_years']} years")
-                                      + ")")
+                if not np.isfinite(r["sen_slope_per_yr"]):   # too few years for a slope
+                    row[f"{el}_trend"] = f"no slope: {r['n_years']} complete years"
+                else:
+                    row[f"{el}_trend"] = (
+                        f"{r['sen_slope_per_yr']:+.3g} per yr (p {r['p_value']:.2g}"
+                        + ("" if r["valid"] else f", not valid: {r['n_years']} years") + ")")
             else:
                 row[f"{el}_trend"] = "–"
         ex = exceedance_table(res, catalogue)
