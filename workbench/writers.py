@@ -171,9 +171,17 @@ def write_report_html(result, study, scenario, path):
     return path
 
 
+def write_analysis_tables(result, study, scenario, path):
+    """exceedance.csv, trends.csv and the handover tables beside `path`; returns their
+    names (:func:`workbench.analysis.outputs.write_analysis`)."""
+    from .analysis.outputs import write_analysis
+    return list(write_analysis(result, study, scenario, Path(path).parent, atomic_write))
+
+
 #: The files of a run folder, in the order they are written: (file name, writer).  A
 #: writer is called as ``writer(result, study, scenario, path)`` and returns the path it
-#: wrote, or None when it has nothing to write.  ``provenance.json`` comes after all of
+#: wrote, None when it has nothing to write, or the list of names of the several files
+#: it wrote.  ``provenance.json`` comes after all of
 #: them, as the mark of a complete run.  Add an output by appending a step.
 OUTPUT_STEPS = [
     ("budget.csv", write_budget_csv),
@@ -182,6 +190,7 @@ OUTPUT_STEPS = [
     ("samples.csv", write_samples_csv),
     ("velocities.nc", write_velocities_nc),
     ("report.html", write_report_html),
+    ("analysis tables", write_analysis_tables),
 ]
 
 
@@ -208,14 +217,10 @@ def write_files(result, study, scenario, folder: Path, progress=None, started=No
     say = progress or (lambda text: None)
     folder = Path(folder)
     names = []
-    for name, writer in OUTPUT_STEPS + [("analysis", None), ("provenance.json", None)]:
+    for name, writer in OUTPUT_STEPS + [("provenance.json", None)]:
         say(name)
         path = folder / name
         try:
-            if name == "analysis":       # exceedance, trends, handover tables (several files)
-                from .analysis.outputs import write_analysis
-                names.extend(write_analysis(result, study, scenario, folder, atomic_write))
-                continue
             if writer is None:
                 prov = provenance(scenario, input_paths(study, scenario), started)
                 prov["outputs"] = names + ["provenance.json"]
@@ -226,7 +231,9 @@ def write_files(result, study, scenario, folder: Path, progress=None, started=No
         except OSError as exc:
             raise OutputError(os_error_message(exc, path) + "; nothing was written into the "
                               "output folder") from exc
-        if got is not None:
+        if isinstance(got, list):        # a step that writes several files names them
+            names.extend(got)
+        elif got is not None:
             names.append(name)
     return names
 
