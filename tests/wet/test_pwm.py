@@ -256,3 +256,37 @@ def test_unscreened_or_empty_input_is_refused():
         wet_deposition(raw, "month")
     with pytest.raises(ValueError, match="no precipitation samples"):
         wet_deposition(screen(raw).isel(sample=slice(0, 0)), "month")
+
+
+def test_the_wet_chain_runs_the_function_named_for_the_pwm(monkeypatch):
+    """One implementation of the method: the PWMs of `wet_deposition` are those of
+    :func:`precipitation_weighted_mean` (the definition in the module docstring)."""
+    import workbench.wet.deposition as dep
+    calls = []
+    real = dep.precipitation_weighted_mean
+
+    def spy(*args, **kwargs):
+        calls.append(kwargs.get("groups") is not None)
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(dep, "precipitation_weighted_mean", spy)
+    rows, _ = hand_worked_rows()
+    scr = screen(make_samples(rows), WetOptions())
+    wet_deposition(scr, P.make_periods(np.datetime64("2021-01-01"), np.datetime64("2021-03-01"),
+                                       "month"), WetOptions())
+    assert calls and all(calls)
+
+
+def test_grouped_pwm_equals_the_plain_mean_per_group():
+    """The grouped form is the plain definition applied to each group's samples."""
+    rng = np.random.default_rng(3)
+    c = rng.uniform(1, 50, 40)
+    p = rng.uniform(0, 30, 40)
+    c[::7] = np.nan
+    p[::11] = np.nan
+    g = rng.integers(0, 5, 40)
+    got = precipitation_weighted_mean(c, p, groups=g, n_groups=6)
+    for k in range(6):
+        sel = g == k
+        want = precipitation_weighted_mean(c[sel], p[sel]) if sel.any() else np.nan
+        np.testing.assert_allclose(got[k], want, rtol=1e-13, equal_nan=True)

@@ -18,7 +18,7 @@ from ..units import deposition_in, ureg
 from . import seasalt
 from .hourly import site_positions, window_sums
 from .options import WetOptions
-from .pwm import CoverageProfile, group_sums
+from .pwm import CoverageProfile, group_sums, precipitation_weighted_mean
 from .qa import UMOL_L_PER_MOL_M3, pH_from_hydrogen
 from .screening import STATUSES
 
@@ -78,15 +78,16 @@ def _species_list(screened):
 
 
 def _weighted(table, screened, weight_all, used, flat, n_flat, species):
-    """Numerators and denominators of the PWM of each species per flat (site, period)."""
-    num, den = {}, {}
+    """PWM of each species per flat (site, period) cell [mol m-3], with its numerator
+    [mol m-3 mm] and denominator [mm]: :func:`~workbench.wet.pwm.precipitation_weighted_mean`
+    over the used samples, each weighted by its share of the cell's depth."""
+    pwm, num, den = {}, {}, {}
+    depth = np.where(used, weight_all, np.nan)
     for sp in species:
         c = np.asarray(screened.variables[sp].values, dtype=float)[table["interval"].values]
-        ok = used & np.isfinite(c)
-        w = np.where(ok, weight_all, 0.0)
-        num[sp] = group_sums(w * np.where(ok, c, 0.0), flat, n_flat)
-        den[sp] = group_sums(w, flat, n_flat)
-    return num, den
+        pwm[sp], num[sp], den[sp] = precipitation_weighted_mean(
+            c, depth, groups=flat, n_groups=n_flat, with_sums=True)
+    return pwm, num, den
 
 
 def _climatology(screened, opt, met, site_idx, n_site, species, mult):
@@ -101,9 +102,8 @@ def _climatology(screened, opt, met, site_idx, n_site, species, mult):
     s_of = pd.Index(_periods.SEASON_NAMES).get_indexer(seasons["season"].values)
     shape = (n_site, _N_SEASONS)
     flat = site_idx[i] * _N_SEASONS + s_of[table["period"].values]
-    num, den = _weighted(table, screened, weight, used, flat, n_site * _N_SEASONS, species)
-    by_season = {sp: (num[sp] / np.where(den[sp] > 0, den[sp], np.nan)).reshape(shape)
-                 for sp in species}
+    pwm, num, den = _weighted(table, screened, weight, used, flat, n_site * _N_SEASONS, species)
+    by_season = {sp: pwm[sp].reshape(shape) for sp in species}
     whole = {}
     for sp in species:
         n_all, d_all = num[sp].reshape(shape).sum(1), den[sp].reshape(shape).sum(1)
@@ -263,9 +263,8 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
                        np.where(precip == 0, 1.0, np.nan))
 
     # --- PWMs ---------------------------------------------------------------------------
-    num, den = _weighted(table, screened, weight, used, flat, n_flat, species)
-    pwm = {sp: (num[sp] / np.where(den[sp] > 0, den[sp], np.nan)).reshape(shape)
-           for sp in species}
+    flat_pwm, num, den = _weighted(table, screened, weight, used, flat, n_flat, species)
+    pwm = {sp: flat_pwm[sp].reshape(shape) for sp in species}
 
     # --- completeness and status --------------------------------------------------------
     missing = (n_samples == 0) | ~(gauge_hours > 0)

@@ -17,7 +17,8 @@ import xarray as xr
 _ONE_HOUR = np.timedelta64(1, "h")
 
 
-def precipitation_weighted_mean(concentration, depth, dim=None, axis=-1):
+def precipitation_weighted_mean(concentration, depth, dim=None, axis=-1, *, groups=None,
+                                 n_groups=None, with_sums=False):
     """Precipitation-weighted mean of concentrations [unit of `concentration`].
 
     Parameters
@@ -30,12 +31,22 @@ def precipitation_weighted_mean(concentration, depth, dim=None, axis=-1):
         Dimension to average over (xarray inputs).
     axis : int
         Axis to average over (numpy inputs).
+    groups : array_like of int, optional
+        Group index of each sample (1-D `concentration` and `depth`): the mean is taken
+        per group, for groups ``0 .. n_groups-1`` (the wet chain's (site, period) cells).
+        A sample enters a group with the weight it is given; a depth of 0 or NaN leaves
+        it out.
+    n_groups : int, optional
+        Number of groups (with `groups`).
+    with_sums : bool
+        With `groups`: also return the weighted sums :math:`\\sum C_i P_i` [mol m-3 mm]
+        and :math:`\\sum P_i` [mm] per group (for pooled means and valid-ion fractions).
 
     Returns
     -------
     array_like
         :math:`\\bar C`; NaN where no sample has both a concentration and a
-        positive depth. [mol m-3]
+        positive depth. [mol m-3]  With `groups` and `with_sums`: ``(mean, num, den)``.
 
     Notes
     -----
@@ -46,7 +57,19 @@ def precipitation_weighted_mean(concentration, depth, dim=None, axis=-1):
 
     >>> round(precipitation_weighted_mean(np.array([0.1, 0.01]), np.array([10.0, 10.0])), 12)
     0.055
+    >>> precipitation_weighted_mean(np.array([1.0, 3.0, 5.0]), np.array([1.0, 1.0, 2.0]),
+    ...                             groups=np.array([0, 0, 1]), n_groups=3).tolist()
+    [2.0, 5.0, nan]
     """
+    if groups is not None:
+        c = np.asarray(concentration, dtype=float)
+        p = np.asarray(depth, dtype=float)
+        ok = np.isfinite(c) & np.isfinite(p)
+        w = np.where(ok, p, 0.0)
+        num = group_sums(w * np.where(ok, c, 0.0), groups, n_groups)
+        den = group_sums(w, groups, n_groups)
+        mean = num / np.where(den > 0, den, np.nan)
+        return (mean, num, den) if with_sums else mean
     if isinstance(concentration, xr.DataArray) or isinstance(depth, xr.DataArray):
         ok = concentration.notnull() & depth.notnull()
         w = depth.where(ok, 0.0)
