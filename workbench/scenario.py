@@ -374,6 +374,7 @@ def _check_grid(grid: dict, given, path, lines):
             raise ScenarioError("missing required key", file=path, line=_line_of(lines, "grid"),
                                 column=f"grid.{key}", expected="the path of the "
                                 + SCHEMA["grid"][key][2].split(",")[0] + " file")
+    for key in ("met", "air", "land_use"):
         p = Path(grid[key])
         if not (p if p.is_absolute() else base / p).exists():
             raise ScenarioError("input file does not exist", file=path,
