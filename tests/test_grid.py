@@ -161,6 +161,7 @@ def test_gridded_met_in_the_site_engine_says_where_to_go(site, grid):
         velocities(met, site["study"].surfaces(), DryOptions())
 
 
+@pytest.mark.filterwarnings("ignore:The ioos_sos checker is deprecated")
 def test_run_folder_cf_compliant(site, tmp_path):
     """`workbench grid`: a whole run folder; grid.nc passes the IOOS compliance-checker
     cf:1.8 suite with no error or warning (reference: CF conventions 1.8 as coded there)."""

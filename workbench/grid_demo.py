@@ -266,3 +266,37 @@ def main(argv=None) -> int:
     args = p.parse_args(argv)
     print(make_demo_grid(args.out))
     return 0
+
+
+def open_run(scenario=None, out=None, block=10):
+    """Run ``workbench grid`` for a notebook and open its maps.
+
+    Parameters
+    ----------
+    scenario : path, optional
+        A scenario with a ``[grid]`` section.  None, or a scenario without one (the
+        site demo): the invented demo grid is made in a temporary folder and run (and
+        a line says so).
+    out : path, optional
+        The run folder (default: a new temporary folder).
+    block : int
+        Cells per block side.
+
+    Returns
+    -------
+    xarray.Dataset
+        ``grid.nc``, loaded (the file is closed).
+    """
+    import tempfile
+    from .grid_output import GRID_FILE, run_grid
+    from .scenario import load_scenario
+    tmp = Path(tempfile.mkdtemp(prefix="workbench-grid-"))
+    if scenario is not None and load_scenario(scenario).given.get("grid") is None:
+        print(f"{scenario} has no [grid] section: showing the invented demo grid instead")
+        scenario = None
+    if scenario is None:
+        scenario = make_demo_grid(tmp / "demo_grid")
+    out = Path(out) if out is not None else tmp / "run"
+    run_grid(scenario, out, quiet=True, block=block)
+    with xr.open_dataset(out / GRID_FILE) as ds:
+        return ds.load()
