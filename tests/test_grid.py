@@ -23,7 +23,7 @@ from workbench.grid_demo import write_grid_files
 from workbench.drydep import DryOptions, velocities
 from workbench.grid import DRY_SPECIES, compute_grid, dry_for_sites, make_periods
 from workbench.grid_io import GridError, block_catalogue, open_grid, read_block
-from workbench.grid_output import grid_dataset, run_grid, write_grid_netcdf
+from workbench.grid_output import grid_dataset
 from workbench.io.inputs import Inputs
 from workbench.io.sites import SiteCatalogue
 from workbench.periods import make_periods as site_periods
@@ -272,3 +272,42 @@ def test_scenario_grid_section_located(tmp_path):
     with pytest.raises(ScenarioError, match=r"line 2, column 'grid.met': input file does "
                                             r"not exist"):
         load_scenario(p)
+
+
+def test_site_commands_on_a_grid_scenario(tmp_path, site):
+    """`workbench run` on a [grid]-only scenario: one located line, no traceback."""
+    from workbench.cli import main
+    _write(tmp_path, site)
+    p = tmp_path / "scenario.toml"
+    p.write_text('[grid]\nmet = "met.nc"\nair = "air.nc"\nland_use = "land_use.nc"\n')
+    assert main(["run", str(p), "--out", str(tmp_path / "out"), "--quiet"]) == 2
+    assert not (tmp_path / "out").exists()
+
+
+def test_lat_lon_grid(site, grid, tmp_path):
+    """The same inputs on a regular latitude/longitude grid (1-D lat, lon dims): cell
+    (0, 0) gives the numbers of the projected grid's cell (0, 0)."""
+    paths = _write(tmp_path, site)
+    r = site["ridge"]
+    lat1, lon1 = r.latitude + np.array([0.0, 0.01]), r.longitude + np.array([0.0, 0.01, 0.02])
+    for role, p in paths.items():
+        with xr.open_dataset(p) as ds:
+            ds = ds.load()
+        ds = ds.drop_vars(["lat", "lon", "x", "y"]).rename({"y": "lat", "x": "lon"})
+        ds = ds.assign_coords(lat=("lat", lat1, {"standard_name": "latitude",
+                                                 "units": "degrees_north"}),
+                              lon=("lon", lon1, {"standard_name": "longitude",
+                                                 "units": "degrees_east"}))
+        ds["crs"].attrs = {"grid_mapping_name": "latitude_longitude"}
+        p.unlink()
+        ds.to_netcdf(p, engine="scipy")
+    g = open_grid(paths["met"], paths["air"], paths["land_use"])
+    assert g.dims == ("lat", "lon")
+    np.testing.assert_allclose(g.latitude[:, 0], lat1)
+    periods = make_periods(grid, "month")
+    _, a = compute_grid(g, DryOptions(), BudgetOptions(), periods)
+    names, b = compute_grid(grid, DryOptions(), BudgetOptions(), periods)
+    np.testing.assert_allclose(a[:, :, 0, 0], b[:, :, 0, 0], rtol=RTOL)
+    ds = grid_dataset(names, a, g, periods, "test")
+    assert ds["dry_N"].dims == ("time", "lat", "lon")
+    assert ds["crs"].attrs["grid_mapping_name"] == "latitude_longitude"

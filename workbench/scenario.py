@@ -480,6 +480,10 @@ def load_scenario_inputs(scenario: Scenario, progress=None):
     """Read the inputs named by a scenario (see :func:`workbench.io.load_inputs`)."""
     from .io import load_inputs
     paths = scenario.input_paths()
+    if "sites" not in paths:           # a scenario with a [grid] section only
+        raise ScenarioError("no site catalogue", file=scenario.path, column="inputs.sites",
+                            expected="[inputs] sites for the site commands; the [grid] "
+                            "section runs with `workbench grid SCENARIO --out DIR`")
     inputs = load_inputs(paths["sites"], paths.get("precipitation"), paths.get("air"),
                          paths.get("met"), reference_state=scenario.data["air"]["reference_state"],
                          progress=progress, flag_map=paths.get("flag_map"))
