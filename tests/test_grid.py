@@ -311,3 +311,21 @@ def test_lat_lon_grid(site, grid, tmp_path):
     ds = grid_dataset(names, a, g, periods, "test")
     assert ds["dry_N"].dims == ("time", "lat", "lon")
     assert ds["crs"].attrs["grid_mapping_name"] == "latitude_longitude"
+
+
+def test_met_flags_counted_per_cell(site, grid, tmp_path):
+    """Nothing lost: an implausible met value (temperature 400 K, outside the hard range
+    of the site reader's checks) is masked and counted in met_flagged_hours of its
+    cell and period."""
+    def hot(ds):
+        v = ds["temperature"].values.copy()
+        v[10:15, 0, 1] = 400.0
+        return ds.assign(temperature=ds["temperature"].copy(data=v))
+    g = _open(_broken(tmp_path, site, "met", hot))
+    periods = make_periods(grid, "month")
+    names, a = compute_grid(g, DryOptions(), BudgetOptions(), periods)
+    _, b = compute_grid(grid, DryOptions(), BudgetOptions(), periods)
+    k = names.index("met_flagged_hours")
+    diff = np.nan_to_num(a[k] - b[k])
+    assert diff[0, 0, 1] == 5 and np.count_nonzero(diff) == 1
+    assert np.all(np.isnan(a[k][:, 1, 0]))                         # the cell without a class

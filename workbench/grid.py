@@ -49,7 +49,7 @@ def output_names(species) -> list:
     names = [f"vd_{s}" for s in sp] + [f"dry_{s}" for s in sp] + \
         [f"flux_coverage_{s}" for s in sp]
     names += [f"dry_{e}" for e in ("S", "N") if any(DRY_SPECIES[s] == e for s in sp)]
-    return names
+    return names + ["met_flagged_hours"]
 
 
 def make_periods(grid: Grid, resolution="month", start=None, end=None) -> pd.DataFrame:
@@ -115,11 +115,17 @@ def dry_for_sites(met, air, catalogue: SiteCatalogue, dry_options, budget_option
     return vd, vel, dry_components(rows, periods)
 
 
-def _period_means(vd: np.ndarray, which: np.ndarray, n_p: int) -> np.ndarray:
-    """Mean over the hours of each period of (cell, time) values, NaN skipped -> (cell, period)."""
+def _onehot(which: np.ndarray, n_p: int) -> np.ndarray:
+    """(time, period) 1 where the hour lies in the period (`which` of assign_hours)."""
     onehot = np.zeros((len(which), n_p))
     inside = which >= 0
     onehot[np.flatnonzero(inside), which[inside]] = 1.0
+    return onehot
+
+
+def _period_means(vd: np.ndarray, which: np.ndarray, n_p: int) -> np.ndarray:
+    """Mean over the hours of each period of (cell, time) values, NaN skipped -> (cell, period)."""
+    onehot = _onehot(which, n_p)
     ok = np.isfinite(vd)
     total = np.where(ok, vd, 0.0) @ onehot
     count = ok.astype(float) @ onehot
@@ -143,7 +149,8 @@ def block_result(grid: Grid, ys: slice, xs: slice, dry_options, budget_options: 
     numpy.ndarray
         (variable, period, y, x) in the order of :func:`output_names`: period-mean
         gap-filled Vd [m s-1], dry deposition of the species' element [kg ha-1],
-        flux coverage [1], total dry S and N [kg ha-1].  NaN for cells without a class.
+        flux coverage [1], total dry S and N [kg ha-1], met hours with a plausibility
+        flag [1].  NaN for cells without a class.
     """
     _check_options(dry_options)
     names = output_names(grid.species)
@@ -152,9 +159,12 @@ def block_result(grid: Grid, ys: slice, xs: slice, dry_options, budget_options: 
     out = np.full((len(names), n_p, ny * nx), np.nan)
     cat = block_catalogue(grid, ys, xs)
     if len(cat):
-        met, air, _ = read_block(grid, ys, xs, cat)
+        met, air, flagged = read_block(grid, ys, xs, cat)
         pos = {s: k for k, s in enumerate(cell_ids(ys, xs).tolist())}
         which = _periods.assign_hours(met["time"].values, periods)
+        cells = np.array([pos[s] for s in cat.ids])
+        counts = flagged.astype(float) @ _onehot(which, n_p)      # (cell, period)
+        out[names.index("met_flagged_hours")][:, cells] = counts.T
         for cls in sorted({s.land_use for s in cat}):
             sub = SiteCatalogue([s for s in cat if s.land_use == cls])
             air_c = air.isel(period=np.flatnonzero(np.isin(air["site"].values, sub.ids)))

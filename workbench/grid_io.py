@@ -485,8 +485,8 @@ def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue):
     air : xarray.Dataset
         Dim ``period`` as :func:`workbench.io.samples.read_air` returns it; a cell's
         interval with no species value is left out (as an empty row of the site file).
-    flagged : int
-        Met records with a plausibility flag.
+    flagged : ndarray of bool, (site, time)
+        Met records with a plausibility flag (their implausible values masked).
     """
     sel = {grid.dims[0]: ys, grid.dims[1]: xs}
     ids = cell_ids(ys, xs)
@@ -502,7 +502,7 @@ def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue):
     sites = np.repeat(kept.astype(object), n_t)
     t = np.tile(grid.times, n_c)
     reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, grid.met_units)
-    flagged = int(np.count_nonzero(reasons != ""))
+    flagged = (np.asarray(reasons, str) != "").reshape(n_c, n_t)
     dvars = {}
     for name, v in values.items():
         unit, _, long_name = MET_VARIABLES[name]

@@ -32,7 +32,11 @@ GRID_FILE = "grid.nc"
 def _attrs(name, grid, mapping) -> dict:
     """units, long_name and cell_methods of an output variable."""
     kind, _, what = name.partition("_")
-    if name.startswith("flux_coverage_"):
+    if name == "met_flagged_hours":
+        a = {"units": "1", "long_name": "hours of the period whose met failed a plausibility "
+             "check of the site reader (implausible values masked; docs/data_formats.md "
+             "section 4)", "cell_methods": "time: sum"}
+    elif name.startswith("flux_coverage_"):
         sp = name[len("flux_coverage_"):]
         a = {"units": "1", "long_name": f"share of the period's hours with a {sp} "
              "concentration and a deposition velocity", "cell_methods": "time: mean"}
