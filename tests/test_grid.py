@@ -329,3 +329,54 @@ def test_met_flags_counted_per_cell(site, grid, tmp_path):
     diff = np.nan_to_num(a[k] - b[k])
     assert diff[0, 0, 1] == 5 and np.count_nonzero(diff) == 1
     assert np.all(np.isnan(a[k][:, 1, 0]))                         # the cell without a class
+
+
+def _attr(var, key, value=None):
+    def f(ds):
+        if value is None:
+            ds[var].attrs.pop(key, None)
+        else:
+            ds[var].attrs[key] = value
+        return ds
+    return f
+
+
+def _overlap(ds):
+    b = ds["time_bnds"].values.copy()
+    b[1, 0] = b[0, 1] - np.timedelta64(1, "h")
+    return ds.assign(time_bnds=ds["time_bnds"].copy(data=b))
+
+
+def _off_hour(ds):
+    b = ds["time_bnds"].values.copy()
+    b[3, 1] = b[3, 1] + np.timedelta64(30, "m")
+    return ds.assign(time_bnds=ds["time_bnds"].copy(data=b))
+
+
+@pytest.mark.parametrize("role,change,message", [
+    ("met", lambda ds: ds.drop_vars("height"),
+     r"met.nc, column 'wind_speed': no height coordinate, expected a scalar coordinate"),
+    ("met", lambda ds: ds.drop_vars("pressure"),
+     r"met.nc, column 'pressure': missing required variable"),
+    ("met", _attr("temperature", "units", "m"),
+     r"met.nc, column 'temperature': unknown or dimensionally wrong unit.*got 'm'"),
+    ("met", _off_hour, r"met.nc, column 'time_bnds': time bounds not one hour \(time index 3\)"),
+    ("air", _overlap, r"air.nc, column 'time_bnds': sampling interval empty or overlapping "
+                      r"the one before \(time index 1\)"),
+    ("air", lambda ds: ds.assign(SO3=ds["SO2"]),
+     r"air.nc, column 'SO3': unknown species, expected one of SO2, HNO3"),
+    ("air", lambda ds: ds.assign_attrs(reference_state="warm"),
+     r"air.nc, column 'reference_state': unknown reference state: got 'warm'"),
+    ("air", _attr("SO2", "units", "mg L-1"),
+     r"air.nc, column 'SO2': a liquid concentration unit in an air file: got 'mg L-1'"),
+    ("air", _attr("NH3", "units", "m s-1"),
+     r"air.nc, column 'NH3': not a concentration unit"),
+    ("land_use", lambda ds: ds.drop_vars(["lat", "lon"]), None),
+])
+def test_bad_grid_inputs_located(site, tmp_path, role, change, message):
+    paths = _broken(tmp_path, site, role, change)
+    if message is None:       # lat/lon also in the met and air files: taken from there
+        assert _open(paths).latitude.shape == (2, 3)
+        return
+    with pytest.raises(GridError, match=message):
+        _open(paths)

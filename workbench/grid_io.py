@@ -13,6 +13,7 @@ converted here, once, with pint (:mod:`workbench.units`).
 """
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -301,6 +302,15 @@ def _land_use(lu, path):
                             expected="one of " + ", ".join(LAND_USE) + suggest(n, LAND_USE))
     raw = var.transpose(*dims).values
     missing = ~np.isfinite(raw) if raw.dtype.kind == "f" else np.zeros(raw.shape, bool)
+    if not np.issubdtype(raw.dtype, np.number):
+        raise GridError("land-use codes are not numbers", file=path, column="land_use",
+                        value=str(raw.dtype), expected="integer codes")
+    frac = ~missing & (np.where(missing, 0, raw) != np.round(np.where(missing, 0, raw)))
+    if frac.any():
+        j, i = np.argwhere(frac)[0]
+        raise GridError(f"land-use code not a whole number (cell {dims[0]}={j}, "
+                        f"{dims[1]}={i})", file=path, column="land_use",
+                        value=float(raw[j, i]), expected="integer codes (one class per cell)")
     codes = np.where(missing, values[0], raw).astype(int)
     known = np.isin(codes, values) | missing
     if not known.all():
@@ -369,6 +379,10 @@ def _check(paths, ds) -> Grid:
         if unit is None:
             raise GridError("variable has no units attribute", file=paths["air"], column=name,
                             expected="a CF 'units' attribute (ug m-3, mol m-3, ppb, nmol mol-1)")
+        if re.search(r"/\s*[munµ]?[lL]\b|\b[munµ]?[lL]-1\b", str(unit)):
+            raise GridError("a liquid concentration unit in an air file", file=paths["air"],
+                            column=name, value=unit, expected="an air concentration unit "
+                            "such as ug m-3 or ppb")
         try:
             to_amount(np.ones(1), unit, name)
         except ValueError as exc:
@@ -444,10 +458,11 @@ def _template(lu, dims, mapping) -> xr.Dataset:
             continue
         if set(v.dims) <= set(dims) and (name in lu.coords or v.attrs.get("standard_name") in
                                          ("latitude", "longitude") or name in dims):
-            keep[name] = v.variable.copy(deep=True)
+            keep[name] = xr.Variable(v.dims, np.asarray(v.values), dict(v.attrs))
     out = xr.Dataset(coords={k: v for k, v in keep.items()})
-    if mapping and mapping in lu.variables:
-        out[mapping] = lu[mapping].variable.copy(deep=True)
+    if mapping and mapping in lu.variables:       # values read now: the file is closed after
+        m = lu[mapping]
+        out[mapping] = xr.Variable(m.dims, np.asarray(m.values), dict(m.attrs))
     out.attrs["grid_mapping"] = mapping or ""
     return out
 
