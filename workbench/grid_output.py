@@ -162,11 +162,8 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=DEFAULT_BLO
                             expected="a [grid] section with met, air and land_use paths")
     say = (lambda text: None) if quiet else (lambda text: print(text, file=sys.stderr))
     if use_dask is None:
-        try:
-            import dask  # noqa: F401
-            use_dask = True
-        except ImportError:
-            use_dask = False
+        import importlib.util
+        use_dask = importlib.util.find_spec("dask") is not None
     started = _dt.datetime.now(_dt.timezone.utc)
     with RunFolder(out, {"scenario": sc.path, **paths}, overwrite, say=say) as folder:
         grid = open_grid(paths["met"], paths["air"], paths["land_use"])
