@@ -45,6 +45,8 @@ def test_vd_map_in_cm_per_s(out):
     t = grid_map_spec(out, "vd_SO2", 1)["data"][0]
     assert t["z"][0][0] == pytest.approx(0.4)
     assert t["colorbar"]["title"]["text"] == "cm/s"
+    assert grid_map_spec(out, "vd_SO2", 1)["layout"]["title"]["text"] == \
+        "deposition velocity of SO2 (period mean), 2021-08"
 
 
 def test_unknown_variable(out):

@@ -70,7 +70,10 @@ def grid_map_spec(ds, variable: str = "dry_N", period: int | str = 0) -> dict:
     names = np.array([meanings[values.index(int(c))] if np.isfinite(c) and int(c) in values
                       else "no class" for c in codes.reshape(-1)], object).reshape(shape)
     custom = np.stack([lat, lon, names], -1).tolist()
-    what = ds[variable].attrs.get("long_name", variable).split(" over the period")[0]
+    if kind == "vd":
+        what = f"deposition velocity of {variable[3:]} (period mean)"
+    else:
+        what = ds[variable].attrs.get("long_name", variable).split(" over the period")[0]
     trace = {"type": "heatmap", "x": x.tolist(), "y": y.tolist(),
              "z": [[None if not np.isfinite(v) else float(v) for v in row] for row in z],
              "colorscale": SCALES.get(kind, "Viridis"),
