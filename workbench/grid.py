@@ -185,6 +185,8 @@ def _fill(out, names, idx, vel, dry, which, n_p):
             v = vel[sp][0].transpose("site", "receptor", "time").values[:, 0, :]
             out[names.index(f"vd_{sp}")][:, idx] = _period_means(v, which, n_p).T
         dep = np.full((len(idx), n_p), np.nan)
+        if dry is None and sp in vel:          # no concentration in these cells at all
+            out[names.index(f"flux_coverage_{sp}")][:, idx] = 0.0
         if dry is not None and sp in vel:
             k = list(dry["species"].values).index(sp)
             dep = element_deposition_in(dry["deposition"].values[:, 0, :, k], element, "kg_ha")
