@@ -380,3 +380,17 @@ def test_bad_grid_inputs_located(site, tmp_path, role, change, message):
         return
     with pytest.raises(GridError, match=message):
         _open(paths)
+
+
+def test_fixed_velocity_on_the_grid(grid):
+    """[dry.fixed_velocity] applies to every cell as to a site: the species' Vd is the
+    fixed value in every cell with a class, its flux changes, the other species' do not."""
+    periods = make_periods(grid, "month")
+    names, a = compute_grid(grid, DryOptions(), BudgetOptions(), periods,
+                            fixed_velocity={"SO2": 0.5})
+    _, b = compute_grid(grid, DryOptions(), BudgetOptions(), periods)
+    vd = a[names.index("vd_SO2")]
+    has = ~np.isnan(vd)
+    assert has.sum() == 2 * 5 and np.allclose(vd[has], 0.005)          # 5 cells, 2 months
+    np.testing.assert_array_equal(a[names.index("dry_NH3")], b[names.index("dry_NH3")])
+    assert not np.allclose(a[names.index("dry_SO2")][has], b[names.index("dry_SO2")][has])
