@@ -67,6 +67,16 @@ def test_notebook_runs_headless(name, scenarios, tmp_path):
         assert "ridge" in last and "total" in last
 
 
+def test_grid_maps_notebook_runs_headless(scenarios, tmp_path):
+    """The map notebook, pointed at a site scenario (no [grid]): the demo grid's maps."""
+    nb = _run("grid_maps", scenarios, tmp_path)
+    outs = _outputs(nb)
+    assert not [o for o in outs if o.output_type == "error"]
+    figures = [o for o in outs if "application/vnd.plotly.v1+json" in o.get("data", {})]
+    assert len(figures) == 2
+    assert "2021-07" in nb.cells[3].outputs[-1]["data"]["text/plain"]
+
+
 def _committed_notebooks():
     """(name, text) of the notebooks in the last commit, or None outside a git checkout.
 
@@ -112,7 +122,7 @@ def test_every_notebook_is_committed():
         pytest.skip("not a git checkout")
     assert {Path(n).name for n, _ in _COMMITTED} == {
         "site_budget.ipynb", "sensitivity.ipynb", "network_overview.ipynb",
-        "critical_loads.ipynb"}
+        "critical_loads.ipynb", "grid_maps.ipynb"}
 
 
 def test_run_artefacts_stay_out_of_the_notebooks_folder():

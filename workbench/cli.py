@@ -1,4 +1,4 @@
-"""Command line: ``workbench run | check | demo | sensitivity`` (also ``python -m workbench``).
+"""Command line: ``workbench run | check | demo | sensitivity | grid`` (also ``python -m workbench``).
 
 Every failure ends in one line ``error: ...`` on stderr that says where and what to do,
 with a non-zero exit code (2; 130 after Ctrl-C), never a traceback: the workbench's own
@@ -155,6 +155,16 @@ def cmd_sensitivity(args) -> int:
     return 0
 
 
+def cmd_grid(args) -> int:
+    from .grid_output import run_grid
+    written = run_grid(args.scenario, args.out, args.overwrite, args.quiet, block=args.block,
+                       use_dask=False if args.in_process else None)
+    print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
+    for name in written:
+        print(f"  {name}")
+    return 0
+
+
 def _positive(text) -> int:
     try:
         n = int(text)
@@ -198,6 +208,19 @@ def build_parser() -> argparse.ArgumentParser:
     g.add_argument("--overwrite", action="store_true", help="replace files in a non-empty folder")
     g.add_argument("--quiet", action="store_true", help="no progress bar")
     g.set_defaults(func=cmd_sensitivity)
+    gr = sub.add_parser("grid", help="gridded Vd and dry deposition maps from the "
+                        "scenario's [grid] files (CF NetCDF)")
+    gr.add_argument("scenario", type=Path)
+    gr.add_argument("--out", type=Path, required=True, help="output folder (created; written "
+                    "whole or not at all)")
+    gr.add_argument("--overwrite", action="store_true",
+                    help="replace a non-empty output folder whole")
+    gr.add_argument("--quiet", action="store_true", help="no progress messages")
+    gr.add_argument("--block", type=_positive, default=32, metavar="N",
+                    help="cells per side of a block (one dask task each; default 32)")
+    gr.add_argument("--in-process", action="store_true", help="run the blocks one after "
+                    "the other without dask (the default when dask is not installed)")
+    gr.set_defaults(func=cmd_grid)
     d = sub.add_parser("demo", help="run the bundled demo scenario into a fresh folder")
     d.add_argument("--out", type=Path, default=None, help="output folder (default: a new "
                    "workbench-demo-<time> folder here)")

@@ -37,6 +37,12 @@ SCHEMA: dict = {
         "reference_state": (str, None, "reference state of mass concentrations when the "
                             "air file states none: 'ambient' or '<T> degC, <p> hPa'"),
     },
+    "grid": {
+        "met": (str, None, "hourly met on (time, y, x), CF NetCDF (docs/data_formats.md)"),
+        "air": (str, None, "air concentrations on (time, y, x) with time bounds, CF NetCDF"),
+        "land_use": (str, None, "land-use classes on (y, x), CF NetCDF flag_values/"
+                     "flag_meanings"),
+    },
     "compare": {
         "common_receptor": (str, None, "land-use class on which every site's annual totals "
                             "are also computed, side by side in common_surface.csv"),
@@ -340,7 +346,8 @@ def validate(raw: dict, path=None, text: str = "") -> Scenario:
                                     column=f"sites.{sid}.{key}", expected="one of "
                                     + ", ".join(SITE_OVERRIDES) + suggest(key, SITE_OVERRIDES))
     data["sites"] = copy.deepcopy(site_over)
-    if data["inputs"]["sites"] is None:
+    _check_grid(data["grid"], raw.get("grid"), path, lines)
+    if data["inputs"]["sites"] is None and raw.get("grid") is None:
         raise ScenarioError("missing required key", file=path, line=_line_of(lines, "inputs"),
                             column="inputs.sites", expected="the path of the site catalogue")
     sc = Scenario(Path(path) if path is not None else None, data, raw, objects,
@@ -354,6 +361,26 @@ def validate(raw: dict, path=None, text: str = "") -> Scenario:
     _check_period(data["period"], path, lines)
     sc.notes = _check_site_overrides(sc, path, lines)
     return sc
+
+
+def _check_grid(grid: dict, given, path, lines):
+    """A [grid] section names all three files, and each exists (paths relative to the
+    scenario file)."""
+    if given is None:
+        return
+    base = Path(path).parent if path is not None else Path.cwd()
+    for key in ("met", "air", "land_use"):
+        if grid[key] is None:
+            raise ScenarioError("missing required key", file=path, line=_line_of(lines, "grid"),
+                                column=f"grid.{key}", expected="the path of the "
+                                + SCHEMA["grid"][key][2].split(",")[0] + " file")
+    for key in ("met", "air", "land_use"):
+        p = Path(grid[key])
+        if not (p if p.is_absolute() else base / p).exists():
+            raise ScenarioError("input file does not exist", file=path,
+                                line=_line_of(lines, "grid", key), column=f"grid.{key}",
+                                value=grid[key], expected="a path relative to the scenario "
+                                "file, or absolute")
 
 
 def _check_period(period: dict, path, lines):
@@ -453,6 +480,10 @@ def load_scenario_inputs(scenario: Scenario, progress=None):
     """Read the inputs named by a scenario (see :func:`workbench.io.load_inputs`)."""
     from .io import load_inputs
     paths = scenario.input_paths()
+    if "sites" not in paths:           # a scenario with a [grid] section only
+        raise ScenarioError("no site catalogue", file=scenario.path, column="inputs.sites",
+                            expected="[inputs] sites for the site commands; the [grid] "
+                            "section runs with `workbench grid SCENARIO --out DIR`")
     inputs = load_inputs(paths["sites"], paths.get("precipitation"), paths.get("air"),
                          paths.get("met"), reference_state=scenario.data["air"]["reference_state"],
                          progress=progress, flag_map=paths.get("flag_map"))

@@ -554,6 +554,10 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
     """
     opt = options or DryOptions()
     _gas.get_scheme(opt.gas_scheme)
+    if "site" not in met.dims:   # e.g. a gridded (time, y, x) field: workbench.grid
+        raise ValueError("met has dims (" + ", ".join(map(str, met.dims)) + "), not (site, "
+                         "time): a gridded field runs cell by cell through workbench.grid "
+                         "(`workbench grid SCENARIO`)")
     met_surf = surfaces.sel(site=met["site"].values)
     every = [str(r) for r in met_surf["receptor"].values]
     for r in every:

@@ -1,0 +1,54 @@
+"""Maps of a gridded run (workbench.ui.figures_grid), on a hand-made 2 x 3 output."""
+import numpy as np
+import pytest
+import xarray as xr
+
+from workbench.ui.figures_grid import grid_map, grid_map_spec
+
+
+@pytest.fixture
+def out():
+    y, x = np.array([0.0, 1000.0]), np.array([0.0, 1000.0, 2000.0])
+    dry_n = np.arange(12, dtype=float).reshape(2, 2, 3)
+    dry_n[1, 1, 0] = np.nan
+    vd = np.full((2, 2, 3), 0.004)
+    ds = xr.Dataset(
+        {"dry_N": (("time", "y", "x"), dry_n, {"units": "1e-4 kg m-2", "long_name":
+                                                "total dry deposition of N over the period"}),
+         "vd_SO2": (("time", "y", "x"), vd, {"units": "m s-1"}),
+         "land_use": (("y", "x"), np.array([[3.0, 7.0, np.nan], [0.0, 3.0, 3.0]]),
+                      {"flag_values": np.array([0, 3, 7]),
+                       "flag_meanings": "conifer_forest grass water"}),
+         "period": ("time", ["2021-07", "2021-08"])},
+        coords={"y": ("y", y, {"standard_name": "projection_y_coordinate", "units": "m"}),
+                "x": ("x", x, {"standard_name": "projection_x_coordinate", "units": "m"}),
+                "lat": (("y", "x"), np.full((2, 3), 54.5), {"standard_name": "latitude"}),
+                "lon": (("y", "x"), np.full((2, 3), 7.2), {"standard_name": "longitude"})})
+    return ds
+
+
+def test_map_of_total_n(out):
+    spec = grid_map_spec(out, "dry_N", "2021-08")
+    t = spec["data"][0]
+    assert t["type"] == "heatmap"
+    assert t["z"][0] == [6.0, 7.0, 8.0] and t["z"][1][0] is None      # NaN: blank cell
+    assert t["x"] == [0.0, 1.0, 2.0] and t["y"] == [0.0, 1.0]          # km
+    assert [c[2] for c in t["customdata"][0]] == ["grass", "water", "no class"]
+    assert t["colorbar"]["title"]["text"] == "kg/ha"
+    assert "2021-08" in spec["layout"]["title"]["text"]
+    assert spec["layout"]["yaxis"]["scaleanchor"] == "x"               # square cells
+    fig = grid_map(out, "dry_N", 0)
+    assert fig.data[0].z[0][1] == 1.0
+
+
+def test_vd_map_in_cm_per_s(out):
+    t = grid_map_spec(out, "vd_SO2", 1)["data"][0]
+    assert t["z"][0][0] == pytest.approx(0.4)
+    assert t["colorbar"]["title"]["text"] == "cm/s"
+    assert grid_map_spec(out, "vd_SO2", 1)["layout"]["title"]["text"] == \
+        "deposition velocity of SO2 (period mean), 2021-08"
+
+
+def test_unknown_variable(out):
+    with pytest.raises(ValueError, match="dry_S.*choose one of dry_N, vd_SO2"):
+        grid_map_spec(out, "dry_S")

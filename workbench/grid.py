@@ -1,0 +1,255 @@
+"""Gridded deposition velocities and dry deposition: every cell of a grid is a site.
+
+The cells of a block of the grid (a rectangle of y and x) are read in the site layout
+(:mod:`workbench.grid_io`) and go through the engine functions of the site pipeline,
+unchanged: :func:`workbench.drydep.velocities` on the surfaces of
+:meth:`SiteCatalogue.surfaces() <workbench.io.sites.SiteCatalogue.surfaces>`, then
+:func:`~workbench.drycomponents.prepare_velocities`,
+:func:`~workbench.drycomponents.dry_rows` and
+:func:`~workbench.drycomponents.dry_components` over the concentrations' sampling
+intervals and the reporting periods.  Only the pair each cell asks for is computed:
+the cells of a block are taken class by class, each with its own class as its one
+receptor.  So a cell whose met, concentrations and land use equal a site's gives that
+site's numbers.
+
+Blocks are independent: :func:`compute_grid` runs them one after the other in
+process, or as dask tasks (one ``dask.delayed`` task per block, assembled with
+``dask.array.block``), so that only one block's hourly inputs are in memory per worker.
+Output: CF maps on (time, y, x), one time step per reporting period
+(:mod:`workbench.grid_output`).
+"""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from . import periods as _periods
+from .budget import COMPONENTS, BudgetOptions
+from .drycomponents import dry_components, dry_rows, prepare_velocities
+from .errors import WorkbenchError
+from .grid_io import Grid, block_catalogue, cell_ids, read_block
+from .io.sites import SiteCatalogue
+from .units import element_deposition_in
+
+#: Dry species of the budget with their element (every one holds one atom of it).
+DRY_SPECIES = {c[2]: c[0] for c in COMPONENTS if c[1] == "dry"}
+#: Cells per side of a block when none is given (a 32 x 32 block of a site-year of
+#: hourly met is about 1,000 site-years of engine arrays at once: ~0.5 GB).
+DEFAULT_BLOCK = 32
+
+
+class GridRunError(WorkbenchError):
+    """Options that the gridded calculation does not support."""
+
+
+def output_names(species) -> list:
+    """Names of the output variables, in order, for the species of an air grid."""
+    sp = [s for s in DRY_SPECIES if s in species]
+    names = [f"vd_{s}" for s in sp] + [f"dry_{s}" for s in sp] + \
+        [f"flux_coverage_{s}" for s in sp]
+    names += [f"dry_{e}" for e in ("S", "N") if any(DRY_SPECIES[s] == e for s in sp)]
+    return names + ["met_flagged_hours"]
+
+
+def make_periods(grid: Grid, resolution="month", start=None, end=None) -> pd.DataFrame:
+    """Reporting periods over the concentrations' span, as :meth:`Study.periods
+    <workbench.pipeline.Study.periods>` makes them for the sites."""
+    t0 = np.datetime64(start) if start else grid.air_start.min()
+    t1 = np.datetime64(end) if end else grid.air_end.max()
+    return _periods.make_periods(t0, t1, resolution)
+
+
+def dry_for_sites(met, air, catalogue: SiteCatalogue, dry_options, budget_options,
+                  periods: pd.DataFrame, fixed_velocity=None):
+    """The site pipeline's dry chain for some sites: Vd, gap-filled Vd, dry components.
+
+    The steps of :meth:`Study.dry <workbench.pipeline.Study.dry>` (velocities, per
+    species gap-filled Vd or a fixed value, deposition over sampling intervals, shares
+    among periods), without its caches.
+
+    Parameters
+    ----------
+    met : xarray.Dataset
+        (site, time), SI units (docs/data_model.md).
+    air : xarray.Dataset
+        Dim ``period`` (as :func:`workbench.io.samples.read_air`).
+    catalogue : SiteCatalogue
+    dry_options : DryOptions
+    budget_options : BudgetOptions
+    periods : pandas.DataFrame
+    fixed_velocity : dict, optional
+        species -> Vd [cm s-1].
+
+    Returns
+    -------
+    vd : xarray.Dataset or None
+        Hourly output of :func:`workbench.drydep.velocities` [m s-1 and s m-1].
+    vel : dict
+        species -> (gap-filled Vd [m s-1] (site, receptor, time), filled mask, source).
+    dry : xarray.Dataset or None
+        Output of :func:`workbench.drycomponents.dry_components` (deposition [mol m-2]).
+    """
+    from .drydep import velocities
+    fixed_velocity = dict(fixed_velocity or {})
+    surf = catalogue.surfaces()
+    need = [sp for sp in DRY_SPECIES if sp in air and sp not in fixed_velocity]
+    vd = velocities(met, surf, dry_options) if need else None
+    receptors = [str(r) for r in surf["receptor"].values]
+    template = xr.DataArray(np.full((len(catalogue), len(receptors), met.sizes["time"]), np.nan),
+                            dims=("site", "receptor", "time"),
+                            coords={"site": catalogue.ids, "receptor": receptors,
+                                    "time": met["time"].values})
+    vel = {}
+    for sp in DRY_SPECIES:
+        fixed = {sp: fixed_velocity[sp]} if sp in fixed_velocity else {}
+        if not fixed and vd is None:
+            continue
+        got = prepare_velocities(vd if not fixed else None, [sp], fixed,
+                                 budget_options.min_slot_hours, template)
+        if sp in got:
+            vel[sp] = got[sp]
+    if not vel or air.sizes["period"] == 0:
+        return vd, vel, None
+    rows = dry_rows(air, vel, met, catalogue.ids, budget_options)
+    return vd, vel, dry_components(rows, periods)
+
+
+def _onehot(which: np.ndarray, n_p: int) -> np.ndarray:
+    """(time, period) 1 where the hour lies in the period (`which` of assign_hours)."""
+    onehot = np.zeros((len(which), n_p))
+    inside = which >= 0
+    onehot[np.flatnonzero(inside), which[inside]] = 1.0
+    return onehot
+
+
+def _period_means(vd: np.ndarray, which: np.ndarray, n_p: int) -> np.ndarray:
+    """Mean over the hours of each period of (cell, time) values, NaN skipped -> (cell, period)."""
+    onehot = _onehot(which, n_p)
+    ok = np.isfinite(vd)
+    total = np.where(ok, vd, 0.0) @ onehot
+    count = ok.astype(float) @ onehot
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(count > 0, total / count, np.nan)
+
+
+def _check_options(dry_options):
+    if getattr(dry_options, "nh3_treatment", "") == "bidirectional":
+        raise GridRunError("[dry] nh3_treatment = 'bidirectional' is not mapped on grids "
+                           "(the cells have no NH3 emission potentials): use the default "
+                           "deposition-only NH3 for a grid")
+
+
+def block_result(grid: Grid, ys: slice, xs: slice, dry_options, budget_options: BudgetOptions,
+                 periods: pd.DataFrame, fixed_velocity=None) -> np.ndarray:
+    """Every output of one block of cells.
+
+    Returns
+    -------
+    numpy.ndarray
+        (variable, period, y, x) in the order of :func:`output_names`: period-mean
+        gap-filled Vd [m s-1], dry deposition of the species' element [kg ha-1],
+        flux coverage [1], total dry S and N [kg ha-1], met hours with a plausibility
+        flag [1].  NaN for cells without a class.
+    """
+    _check_options(dry_options)
+    names = output_names(grid.species)
+    n_p = len(periods)
+    ny, nx = ys.stop - ys.start, xs.stop - xs.start
+    out = np.full((len(names), n_p, ny * nx), np.nan)
+    cat = block_catalogue(grid, ys, xs)
+    if len(cat):
+        met, air, flagged = read_block(grid, ys, xs, cat)
+        pos = {s: k for k, s in enumerate(cell_ids(ys, xs).tolist())}
+        which = _periods.assign_hours(met["time"].values, periods)
+        cells = np.array([pos[s] for s in cat.ids])
+        counts = flagged.astype(float) @ _onehot(which, n_p)      # (cell, period)
+        out[names.index("met_flagged_hours")][:, cells] = counts.T
+        for cls in sorted({s.land_use for s in cat}):
+            sub = SiteCatalogue([s for s in cat if s.land_use == cls])
+            air_c = air.isel(period=np.flatnonzero(np.isin(air["site"].values, sub.ids)))
+            _, vel, dry = dry_for_sites(met.sel(site=sub.ids), air_c, sub, dry_options,
+                                        budget_options, periods, fixed_velocity)
+            idx = np.array([pos[s] for s in sub.ids])
+            _fill(out, names, idx, vel, dry, which, n_p)
+    return out.reshape(len(names), n_p, ny, nx)
+
+
+def _fill(out, names, idx, vel, dry, which, n_p):
+    """Put one class's results of a block into `out` (variable, period, cell)."""
+    totals = {}
+    for sp, element in DRY_SPECIES.items():
+        if f"vd_{sp}" not in names:
+            continue
+        if sp in vel:
+            v = vel[sp][0].transpose("site", "receptor", "time").values[:, 0, :]
+            out[names.index(f"vd_{sp}")][:, idx] = _period_means(v, which, n_p).T
+        dep = np.full((len(idx), n_p), np.nan)
+        if dry is None and sp in vel:          # no concentration in these cells at all
+            out[names.index(f"flux_coverage_{sp}")][:, idx] = 0.0
+        if dry is not None and sp in vel:
+            k = list(dry["species"].values).index(sp)
+            dep = element_deposition_in(dry["deposition"].values[:, 0, :, k], element, "kg_ha")
+            out[names.index(f"flux_coverage_{sp}")][:, idx] = \
+                dry["flux_coverage"].values[:, 0, :, k].T
+        out[names.index(f"dry_{sp}")][:, idx] = dep.T
+        totals[element] = dep if element not in totals else totals[element] + dep
+    for element, total in totals.items():      # NaN where any species of it is unknown
+        out[names.index(f"dry_{element}")][:, idx] = total.T
+
+
+def blocks(shape, block) -> list:
+    """(y slice, x slice) of every block, row by row."""
+    by, bx = (block, block) if np.isscalar(block) else block
+    ny, nx = shape
+    return [[(slice(j, min(j + by, ny)), slice(i, min(i + bx, nx)))
+             for i in range(0, nx, bx)] for j in range(0, ny, by)]
+
+
+def compute_grid(grid: Grid, dry_options, budget_options, periods, fixed_velocity=None,
+                 block=DEFAULT_BLOCK, use_dask=False, progress=None):
+    """Every output of every cell, block by block.
+
+    Parameters
+    ----------
+    grid : Grid
+        From :func:`workbench.grid_io.open_grid`.
+    dry_options, budget_options : DryOptions, BudgetOptions
+    periods : pandas.DataFrame
+    fixed_velocity : dict, optional
+    block : int or (int, int)
+        Cells per block side (y, x).
+    use_dask : bool
+        One dask task per block (lazy result; computed when written or ``.compute()``d);
+        else the blocks run one after the other in process.
+    progress : callable, optional
+        Called with a short text after each block (in process only).
+
+    Returns
+    -------
+    (names, array)
+        Output names and a (variable, period, y, x) numpy or dask array.
+    """
+    _check_options(dry_options)
+    names = output_names(grid.species)
+    n_v, n_p = len(names), len(periods)
+    layout = blocks(grid.shape, block)
+    args = (dry_options, budget_options, periods, fixed_velocity)
+    if use_dask:
+        from .optional import require
+        dask = require("dask")
+        da = require("dask.array")
+        task = dask.delayed(block_result, pure=True)
+        arr = da.block([[da.from_delayed(task(grid, ys, xs, *args),
+                                         shape=(n_v, n_p, ys.stop - ys.start, xs.stop - xs.start),
+                                         dtype=float) for ys, xs in row] for row in layout])
+        return names, arr
+    arr = np.full((n_v, n_p) + grid.shape, np.nan)
+    done, total = 0, sum(len(r) for r in layout)
+    for row in layout:
+        for ys, xs in row:
+            arr[:, :, ys, xs] = block_result(grid, ys, xs, *args)
+            done += 1
+            if progress:
+                progress(f"block {done}/{total}")
+    return names, arr

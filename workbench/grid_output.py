@@ -1,0 +1,200 @@
+"""CF NetCDF maps of a gridded run and the ``workbench grid`` run folder.
+
+``grid.nc``: dims (time, y, x), one time step per reporting period with CF time bounds;
+the input grid's coordinates, auxiliary latitude/longitude and grid mapping copied
+from the land-use file; every variable with ``units``, ``long_name``,
+``grid_mapping`` and ``cell_methods``; a ``history`` attribute naming the inputs (with
+their SHA-256), the options and the package version.  The folder is written whole or
+not at all (:class:`workbench.runfolder.RunFolder`), ``provenance.json`` last.
+"""
+from __future__ import annotations
+
+import datetime as _dt
+import json
+import sys
+from pathlib import Path
+
+import numpy as np
+import xarray as xr
+
+from . import __version__
+from .grid import DRY_SPECIES, DEFAULT_BLOCK, compute_grid, make_periods
+from .grid_io import describe, open_grid
+from .landuse import LAND_USE
+from .runfolder import OutputError, RunFolder, os_error_message
+
+#: The reporting unit of deposition: kg of the element per hectare, as a UDUNITS string
+#: (1 ha = 1e4 m2).
+KG_PER_HA = "1e-4 kg m-2"
+GRID_FILE = "grid.nc"
+
+
+def _attrs(name, grid, mapping) -> dict:
+    """units, long_name and cell_methods of an output variable."""
+    kind, _, what = name.partition("_")
+    if name == "met_flagged_hours":
+        a = {"units": "1", "long_name": "hours of the period whose met failed a plausibility "
+             "check of the site reader (implausible values masked; docs/data_formats.md "
+             "section 4)", "cell_methods": "time: sum"}
+    elif name.startswith("flux_coverage_"):
+        sp = name[len("flux_coverage_"):]
+        a = {"units": "1", "long_name": f"share of the period's hours with a {sp} "
+             "concentration and a deposition velocity", "cell_methods": "time: mean"}
+    elif kind == "vd":
+        a = {"units": "m s-1", "long_name": f"dry deposition velocity of {what} (hourly, gaps "
+             f"filled from the mean diurnal cycle), mean over the period at "
+             f"{grid.sampler_height:g} m", "cell_methods": "time: mean"}
+    elif what in ("S", "N"):
+        parts = [s for s, e in DRY_SPECIES.items() if e == what and s in grid.species]
+        a = {"units": KG_PER_HA, "long_name": f"total dry deposition of {what} over the "
+             f"period (kg {what}/ha): sum of {', '.join(parts)} (NaN where one is unknown)",
+             "cell_methods": "time: sum", "species_summed": " ".join(parts)}
+    else:
+        el = DRY_SPECIES[what]
+        a = {"units": KG_PER_HA, "long_name": f"dry deposition of {what} over the period "
+             f"(kg {el}/ha, as {el}), scaled to the whole period from the covered hours",
+             "cell_methods": "time: sum"}
+    if mapping:
+        a["grid_mapping"] = mapping
+    return a
+
+
+def grid_dataset(names, arr, grid, periods, history: str) -> xr.Dataset:
+    """The CF Dataset of a gridded run (lazy when `arr` is a dask array).
+
+    Parameters
+    ----------
+    names : list of str
+    arr : numpy or dask array
+        (variable, period, y, x) from :func:`workbench.grid.compute_grid`.
+    grid : Grid
+    periods : pandas.DataFrame
+    history : str
+        Line for the ``history`` attribute.
+    """
+    ydim, xdim = grid.dims
+    mapping = grid.template.attrs.get("grid_mapping", "")
+    start = periods["start"].values.astype("datetime64[ns]")
+    end = periods["end"].values.astype("datetime64[ns]")
+    dvars = {n: (("time", ydim, xdim), arr[k], _attrs(n, grid, mapping))
+             for k, n in enumerate(names)}
+    ds = xr.Dataset(dvars)
+    ds = ds.assign_coords({c: grid.template[c].variable for c in grid.template.coords})
+    ds = ds.assign_coords(time=("time", start, {"standard_name": "time", "axis": "T",
+                                                "long_name": "start of the reporting period",
+                                                "bounds": "time_bnds"}))
+    ds["time_bnds"] = (("time", "nv"), np.stack([start, end], 1))
+    ds["period"] = ("time", periods["label"].astype(str).values,
+                    {"long_name": "label of the reporting period"})
+    if mapping and mapping in grid.template:
+        ds[mapping] = grid.template[mapping].variable
+    ds["land_use"] = ((ydim, xdim), _class_codes(grid.classes),
+                      {"long_name": "land-use class of the cell (the receptor of its maps)",
+                       "flag_values": np.arange(len(_CLASSES), dtype="int16"),
+                       "flag_meanings": " ".join(_CLASSES),
+                       **({"grid_mapping": mapping} if mapping else {})})
+    ds.attrs = {"Conventions": "CF-1.8", "title": "gridded dry deposition velocities and "
+                "dry deposition of S and N (deposition workbench)",
+                "institution": "deposition workbench user",
+                "source": f"deposition workbench {__version__}: the site engine run on "
+                "every cell (model-based estimates, uncertain; for regulatory work follow "
+                "the methods your authority requires)",
+                "history": history,
+                "references": "docs/methods_dry.md of the deposition workbench"}
+    return ds
+
+
+#: Our classes in their order: the codes of the output's land_use map.
+_CLASSES = list(LAND_USE)
+
+
+def _class_codes(classes) -> np.ndarray:
+    lookup = {c: k for k, c in enumerate(_CLASSES)}
+    return np.array([lookup.get(c, -1) for c in classes.reshape(-1)],
+                    "int16").reshape(classes.shape)
+
+
+def write_grid_netcdf(ds: xr.Dataset, path: Path):
+    """Write (and compute, when lazy) the maps as NetCDF3 (scipy: no extra library)."""
+    enc = {n: {"_FillValue": np.nan} for n in ds.data_vars if ds[n].dtype.kind == "f"}
+    for name in ("time", "time_bnds"):
+        enc[name] = {"units": "hours since 1970-01-01 00:00:00", "calendar": "standard",
+                     "dtype": "float64", "_FillValue": None}
+    for name in ds.coords:
+        if name not in enc:
+            enc[name] = {"_FillValue": None}
+    enc["land_use"] = {"dtype": "int16", "_FillValue": np.int16(-1)}
+    ds.to_netcdf(path, engine="scipy", format="NETCDF3_64BIT", encoding=enc)
+
+
+def grid_paths(sc) -> dict:
+    """role -> absolute path of the ``[grid]`` files of a scenario."""
+    out = {}
+    for role in ("met", "air", "land_use"):
+        v = sc.data.get("grid", {}).get(role)
+        if v is not None:
+            p = Path(v)
+            out[role] = p if p.is_absolute() else (sc.base / p).resolve()
+    return out
+
+
+def run_grid(scenario_path, out, overwrite=False, quiet=False, block=DEFAULT_BLOCK,
+             use_dask=None) -> dict:
+    """Compute a scenario's ``[grid]`` and write the run folder (grid.nc, provenance.json).
+
+    Parameters
+    ----------
+    use_dask : bool, optional
+        Blocks as dask tasks (default: when dask is installed).
+
+    Returns
+    -------
+    dict
+        name -> Path of each file written.
+    """
+    from .errors import ScenarioError
+    from .scenario import load_scenario
+    from .writers import provenance
+    sc = load_scenario(scenario_path)
+    paths = grid_paths(sc)
+    if len(paths) != 3:
+        raise ScenarioError("no [grid] section", file=sc.path, column="grid",
+                            expected="a [grid] section with met, air and land_use paths")
+    say = (lambda text: None) if quiet else (lambda text: print(text, file=sys.stderr))
+    if use_dask is None:
+        import importlib.util
+        use_dask = importlib.util.find_spec("dask") is not None
+    started = _dt.datetime.now(_dt.timezone.utc)
+    with RunFolder(out, {"scenario": sc.path, **paths}, overwrite, say=say) as folder:
+        grid = open_grid(paths["met"], paths["air"], paths["land_use"])
+        say(describe(grid))
+        for note in grid.notes:
+            say(f"note: {note}")
+        p = sc.data["period"]
+        periods = make_periods(grid, p["resolution"], p["start"], p["end"])
+        o = sc.options
+        names, arr = compute_grid(grid, o["dry"], o["budget"], periods, sc.fixed_velocity,
+                                  block=block, use_dask=use_dask, progress=say)
+        prov = provenance(sc, {"scenario": sc.path, **paths}, started)
+        history = (f"{started:%Y-%m-%dT%H:%M:%SZ} workbench grid {sc.path} (deposition "
+                   f"workbench {__version__}; blocks of {block} cells"
+                   f"{' as dask tasks' if use_dask else ''}); inputs: "
+                   + "; ".join(f"{r} {v['path']} sha256 {v['sha256']}"
+                               for r, v in prov["inputs"].items()))
+        ds = grid_dataset(names, arr, grid, periods, history)
+        ds.attrs["workbench_options"] = json.dumps(
+            {k: sc.resolved().get(k) for k in ("dry", "budget", "period", "grid")}, default=str)
+        target = folder.path / GRID_FILE
+        try:
+            write_grid_netcdf(ds, target)
+            prov["outputs"] = [GRID_FILE, "provenance.json"]
+            prov["notes"] = grid.notes
+            (folder.path / "provenance.json").write_text(json.dumps(prov, indent=2, default=str))
+        except OSError as exc:
+            raise OutputError(os_error_message(exc, target) + "; nothing was written into the "
+                              "output folder") from exc
+        try:
+            final = folder.commit()
+        except OSError as exc:
+            raise OutputError(os_error_message(exc, folder.out, "rename into place")) from exc
+    return {GRID_FILE: final / GRID_FILE, "provenance.json": final / "provenance.json"}

@@ -1,0 +1,92 @@
+"""Maps of a gridded run (``grid.nc`` of ``workbench grid``).
+
+Pure functions: the output Dataset in, a plotly spec (plain JSON) or figure out.  The
+map is drawn on the grid's own coordinates (projected x and y in km, or longitude and
+latitude), one square per cell, with the cell's latitude, longitude and class in the
+hover text; cells without a value are left blank.
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from .figures import from_spec
+
+#: Colour scales: sequential, colour-blind safe (plotly's built-in names).
+SCALES = {"dry": "Viridis", "vd": "Cividis"}
+#: Factor and unit of the colour bar per kind of variable.
+DISPLAY = {"dry": (1.0, "kg/ha"), "vd": (100.0, "cm/s"), "flux": (1.0, "-")}
+
+
+def _axes(ds):
+    """(y name, x name, y values, x values, axis titles) of the map."""
+    ydim, xdim = [d for d in ds["land_use"].dims]
+    y, x = ds[ydim].values.astype(float), ds[xdim].values.astype(float)
+    sn = ds[xdim].attrs.get("standard_name", "")
+    if sn == "projection_x_coordinate" and ds[xdim].attrs.get("units") == "m":
+        return y / 1e3, x / 1e3, f"{ydim} [km]", f"{xdim} [km]"
+    return y, x, f"{ydim} [{ds[ydim].attrs.get('units', '')}]", \
+        f"{xdim} [{ds[xdim].attrs.get('units', '')}]"
+
+
+def _aux(ds, standard_name, shape):
+    for name in ds.variables:
+        if ds[name].attrs.get("standard_name") == standard_name:
+            return np.broadcast_to(ds[name].values, shape)
+    return np.full(shape, np.nan)
+
+
+def grid_map_spec(ds, variable: str = "dry_N", period: int | str = 0) -> dict:
+    """Spec of a map of one output variable for one reporting period.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        ``grid.nc`` of a gridded run.
+    variable : str
+        ``dry_N``, ``dry_S``, ``dry_<species>`` [kg/ha of the element] or
+        ``vd_<species>`` [drawn in cm/s].
+    period : int or str
+        Position or label of the period.
+
+    Returns
+    -------
+    dict
+        ``{"data": [heatmap], "layout": {...}}``.
+    """
+    if variable not in ds:
+        raise ValueError(f"{variable!r} is not in the grid output; choose one of "
+                         + ", ".join(v for v in ds.data_vars if ds[v].ndim == 3))
+    labels = [str(v) for v in ds["period"].values]
+    k = labels.index(period) if isinstance(period, str) else int(period)
+    kind = variable.split("_")[0]
+    factor, unit = DISPLAY.get(kind, (1.0, ds[variable].attrs.get("units", "")))
+    z = ds[variable].values[k] * factor
+    y, x, ytitle, xtitle = _axes(ds)
+    shape = z.shape
+    lat, lon = _aux(ds, "latitude", shape), _aux(ds, "longitude", shape)
+    codes = ds["land_use"].values
+    meanings = str(ds["land_use"].attrs.get("flag_meanings", "")).split()
+    values = list(np.asarray(ds["land_use"].attrs.get("flag_values", []), int))
+    names = np.array([meanings[values.index(int(c))] if np.isfinite(c) and int(c) in values
+                      else "no class" for c in codes.reshape(-1)], object).reshape(shape)
+    custom = np.stack([lat, lon, names], -1).tolist()
+    if kind == "vd":
+        what = f"deposition velocity of {variable[3:]} (period mean)"
+    else:
+        what = ds[variable].attrs.get("long_name", variable).split(" over the period")[0]
+    trace = {"type": "heatmap", "x": x.tolist(), "y": y.tolist(),
+             "z": [[None if not np.isfinite(v) else float(v) for v in row] for row in z],
+             "colorscale": SCALES.get(kind, "Viridis"),
+             "colorbar": {"title": {"text": unit}}, "customdata": custom,
+             "hovertemplate": "lat %{customdata[0]:.3f}, lon %{customdata[1]:.3f}<br>"
+             "%{customdata[2]}<br>" + f"{variable}: " + "%{z:.3g} " + unit + "<extra></extra>"}
+    layout = {"title": {"text": f"{what}, {labels[k]}"},
+              "xaxis": {"title": {"text": xtitle}, "constrain": "domain"},
+              "yaxis": {"title": {"text": ytitle}, "scaleanchor": "x", "scaleratio": 1},
+              "height": 460, "width": 560}
+    return {"data": [trace], "layout": layout}
+
+
+def grid_map(ds, variable: str = "dry_N", period: int | str = 0):
+    """The plotly figure of :func:`grid_map_spec`."""
+    return from_spec(grid_map_spec(ds, variable, period))
