@@ -112,8 +112,8 @@ def _receptor_roughness(surf, receptors, opt):
 _MICROMET_OPTIONS = ("roughness", "ustar_floor", "ra_cap", "ra_min_height_z0",
                      "blending_height", "ustar_transfer", "night_cloud_cover", "unstable_iterations",
                      "charnock_iterations")
-#: Step 5 (season and wetness; the dew rule resolved for the scheme is a parameter).
-_STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule")
+#: Step 5 (season and wetness; the dew rule as the gas scheme resolves it).
+_STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule", "dew_rule", "gas_scheme")
 #: The gases (Rb, Rc and its paths, Vd; the bidirectional NH3 model).
 _GAS_OPTIONS = ("gas_scheme", "gases", "nh3_treatment", "hno3_rc_floor",
                 "nh3_emission_potential", "nh3_acid_ratio", "rc_scale")
@@ -318,6 +318,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
      cap_used, valid, z0_r) = (m[k] for k in _MICROMET_OUT)
 
     def season_wetness(opt):
+        dew_rule = _wetness.resolve_dew_rule(opt.dew_rule, _gas.get_scheme(opt.gas_scheme))
         # --- 5. season and wetness -------------------------------------------------------------
         times = block["time"].values
         month = _seasons.calendar_month(times)[None, None, :]
@@ -357,9 +358,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         here = locals()
         return {k: here[k] for k in _STATE_OUT}
 
-    dew_rule = _wetness.resolve_dew_rule(opt.dew_rule, scheme)
-    sw = _stage(cache, "canopy_state", season_wetness, opt, ("micromet",), receptors=rset,
-                dew_rule=dew_rule)
+    sw = _stage(cache, "canopy_state", season_wetness, opt, ("micromet",), receptors=rset)
     (cat, cat_src, wet, kind, wet_src) = (sw[k] for k in _STATE_OUT)
 
     # --- 6. gases and particles ---------------------------------------------------------------
