@@ -20,7 +20,6 @@ from . import graph as _graph
 from .budget import COMPONENTS, PAIRS, BudgetError, BudgetOptions
 from .dryflux import (_cumulative, _hour_bounds, _inputs_for, deposition_rows, fill_diurnal,
                       period_axes, period_mean, share_to_periods)
-from .memo import digest
 
 
 def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=7,
@@ -131,8 +130,8 @@ def _fingerprint(air: xr.Dataset, species: str) -> str:
     censoring, detection limits, methods, sites and times), for content-keyed caches."""
     names = (species, f"{species}_censored", f"{species}_detection_limit",
              f"{species}_method", "site", "start", "end")
-    return digest([(n, air.variables[n]) for n in names if n in air.variables],
-                  str(air[species].attrs.get("quantity", "")))
+    return _graph.variables_digest([(n, air.variables[n]) for n in names if n in air.variables],
+                                   str(air[species].attrs.get("quantity", "")))
 
 
 def fill_arrays(vd, was, source, sites) -> dict:

@@ -114,9 +114,6 @@ class Study:
         self.token = uuid.uuid4().hex
         self.counts = {"screened": 0, "wet": 0, "velocities": 0, "dry": 0, "budget": 0}
 
-    def __getstate__(self):                  # for dask tasks: the graph travels empty
-        return dict(self.__dict__)
-
     # ---------------------------------------------------------------- construction
     @classmethod
     def from_scenario(cls, scenario, progress=None) -> "Study":
