@@ -218,3 +218,13 @@ def test_the_cache_is_bounded_by_entries_and_bytes():
         assert len(g) == 1 and g.nbytes == 10_000
     finally:
         G.STAGES.pop("test_array")
+
+
+def test_the_stage_table_of_the_docs_is_up_to_date():
+    """docs/engine.md lists the stages as declared (`python docs/make_engine_table.py`)."""
+    import importlib.util
+    docs = Path(__file__).resolve().parents[1] / "docs"
+    spec = importlib.util.spec_from_file_location("met", docs / "make_engine_table.py")
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    assert mod.table() in (docs / "engine.md").read_text()

@@ -226,11 +226,11 @@ def nh3_emission_rows(o, deposition, inputs, emission, times):
     return e
 
 
-def _axes_node(fill) -> _graph.Node:
-    """Node of a Vd's site and time axes (what :func:`flux_inputs` reads of it)."""
-    vd = fill.value["vd"]
-    return _graph.Node("vd_axes:" + _graph.content_digest(
-        [np.asarray(vd["site"].values, object), vd["time"].values]), vd)
+@_graph.stage("vd_axes")
+def vd_axes(o, fill):
+    """Digest of a filled Vd's site and time axes (what :func:`flux_inputs` reads of it)."""
+    vd = fill["vd"]
+    return _graph.content_digest([np.asarray(vd["site"].values, object), vd["time"].values])
 
 
 def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=None):
@@ -279,21 +279,29 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
     times = any_vd["time"].values
     opts = {"budget": options}
     run = functools.partial(graph.run, options=opts, counts=counts)
+    axes = {}
+
+    def axes_node(fill):       # the axes by their content (those of this call by fill)
+        if fill.key not in axes:
+            d = run("vd_axes", deps={"fill": fill}).value
+            axes[fill.key] = _graph.Node("vd_axes:" + d, fill.value["vd"])
+        return axes[fill.key]
+    times_node = _graph.Node(axes_node(next(iter(nodes.values()))).key + ":times", times)
     met_node = met
     prepared = run("air_basis", deps={"air": air})
-    times_p = {"times": times}
 
     def one(air_node, sp, vd_sp):
         content = run("air_content", deps={"air": air_node}, params={"species": sp})
         air_c = _graph.Node("air_content:" + content.value, air_node.value)
-        inputs = run("flux_inputs", deps={"air": air_c, "axes": _axes_node(nodes[vd_sp]),
+        inputs = run("flux_inputs", deps={"air": air_c, "axes": axes_node(nodes[vd_sp]),
                                           "met": met_node},
                      params={"species": sp, "sites": tuple(sites)})
-        return inputs, run("species_rows", deps={"inputs": inputs, "fill": nodes[vd_sp]},
-                           params=times_p)
+        return inputs, run("species_rows", deps={"inputs": inputs, "fill": nodes[vd_sp],
+                                                 "times": times_node})
 
     out = {"species": {}, "bracket": {}, "notes": [], "times": times,
-           "receptors": any_vd["receptor"].values, "sites": sites, "vd_cum": {}, "keys": {}}
+           "receptors": any_vd["receptor"].values, "sites": sites, "vd_cum": {},
+           "keys": {"times": times_node.key}}
     air_v = prepared.value
     for sp in species_list:
         if sp not in air_v or sp not in nodes:
@@ -306,7 +314,8 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
     if "NH3" in out["species"] and all(k in nodes for k in NH3_EXCHANGE):
         inputs, dep = one(prepared, "NH3", "NH3_bidirectional")
         em = run("nh3_emission_rows", deps={"deposition": dep, "inputs": inputs,
-                                            "emission": nodes["NH3_emission"]}, params=times_p)
+                                            "emission": nodes["NH3_emission"],
+                                            "times": times_node})
         out["nh3_exchange"] = {"deposition": dep.value[0], "emission": em.value}
         out["keys"]["nh3|deposition"], out["keys"]["nh3|emission"] = dep.key, em.key
     for pair, (gas, part) in PAIRS.items():

@@ -22,6 +22,7 @@ and the fields each declares (``python docs/make_engine_table.py``).
 from __future__ import annotations
 
 import dataclasses
+import functools
 import hashlib
 import json
 from collections import Counter, OrderedDict
@@ -46,12 +47,17 @@ class Node(NamedTuple):
     value: object
 
 
-def _field_names(obj) -> tuple:
-    if isinstance(obj, OptionView):
-        return _field_names(object.__getattribute__(obj, "_obj"))
+def _field_names(obj) -> frozenset:
+    while isinstance(obj, OptionView):
+        obj = object.__getattribute__(obj, "_obj")
     if dataclasses.is_dataclass(obj):
-        return tuple(f.name for f in dataclasses.fields(obj))
-    return tuple(vars(obj))
+        return _class_fields(type(obj))
+    return frozenset(vars(obj))
+
+
+@functools.lru_cache(maxsize=None)
+def _class_fields(cls) -> frozenset:
+    return frozenset(f.name for f in dataclasses.fields(cls))
 
 
 class OptionView:
@@ -242,9 +248,10 @@ STAGES: dict = {}
 
 def declare(name, reads=None, fn=None, counts_as=None, freeze=False, doc=""):
     """Register a stage (a stage of the same name is replaced)."""
+    if not doc and fn is not None:           # the first paragraph of its docstring
+        doc = " ".join((fn.__doc__ or "").strip().split("\n\n")[0].split())
     STAGES[name] = Stage(name, fn, {g: tuple(f) for g, f in (reads or {}).items()},
-                         counts_as, freeze, doc or (fn.__doc__ or "").strip().split("\n")[0]
-                         if fn else doc)
+                         counts_as, freeze, doc)
     return STAGES[name]
 
 
@@ -331,8 +338,8 @@ class Graph:
             if group not in options:
                 continue
             obj = options[group]
-            opts.append((group, tuple((n, token(getattr(obj, n))) for n in names
-                                      if n in _field_names(obj))))
+            have = _field_names(obj)
+            opts.append((group, tuple((n, token(getattr(obj, n))) for n in names if n in have)))
         parts = (st.name, tuple(opts), tuple(sorted((k, d.key) for k, d in deps.items())),
                  tuple(sorted((k, token(v)) for k, v in params.items())))
         h = hashlib.blake2b(repr(parts).encode(), digest_size=16).hexdigest()

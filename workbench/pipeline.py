@@ -265,13 +265,14 @@ class Study:
         return self.inputs.met is not None and any(sp not in (fixed_velocity or {}) for sp in measured)
 
     def _velocity_sets(self, dry_options, budget_options, fixed_velocity, overrides,
-                       receptors=None) -> dict:
+                       receptors=None, vd=None) -> dict:
         """Nodes of the gap-filled Vd per species (model or fixed value), each a stage
         keyed by the content of the species' Vd: a dry option that leaves it as it was
         (a particle size, for the gases) reuses its fill and its rows."""
         dry_species = [c[2] for c in COMPONENTS if c[1] == "dry"]
-        vd = (self._velocities_node(dry_options, overrides, receptors)
-              if self._needs_model(fixed_velocity) else _NONE)
+        if vd is None:
+            vd = (self._velocities_node(dry_options, overrides, receptors)
+                  if self._needs_model(fixed_velocity) else _NONE)
         ids = tuple(self.catalogue(overrides).ids)
         opts = {"budget": budget_options}
         every = tuple(receptors) if receptors is not None else tuple(self.receptors(overrides))
@@ -301,12 +302,12 @@ class Study:
         return out
 
     def _dry_rows_node(self, dry_options, budget_options, fixed_velocity=None, overrides=None,
-                       receptors=None) -> Node:
+                       receptors=None, vd=None) -> Node:
         if self.inputs.air is None or self.inputs.met is None:
             return _NONE
         fixed_velocity = dict(fixed_velocity or {})
         vel = self._velocity_sets(dry_options, budget_options, fixed_velocity, overrides,
-                                  receptors)
+                                  receptors, vd)
         if not vel:
             return _NONE
         ids = list(self.catalogue(overrides).ids)
@@ -325,37 +326,34 @@ class Study:
         return self._dry_rows_node(dry_options, budget_options, fixed_velocity, overrides,
                                    receptors).value
 
-    def _dry_node(self, dry_options, budget_options, periods: Node, fixed_velocity=None,
-                  overrides=None, receptors=None) -> Node:
-        rows = self._dry_rows_node(dry_options, budget_options, fixed_velocity, overrides,
-                                   receptors)
+    def _dry_node(self, rows: Node, periods: Node) -> Node:
+        """Dry components over `periods` from the rows (their shares are stages)."""
         if rows.value is None:
             return _NONE
         r = rows.value
+        times = Node(r["keys"]["times"], r["times"])
 
         def share(name, piece):
             return self._run("period_shares", deps={"rows": Node(r["keys"][name], piece),
-                                                    "periods": periods},
-                             params={"n_sites": len(r["sites"]), "times": r["times"]}).value
+                                                    "periods": periods, "times": times},
+                             params={"n_sites": len(r["sites"])}).value
         return self._run("dry_components", deps={"rows": rows, "periods": periods},
                          fn=lambda o, rows, periods: dry_components(rows, periods, share))
 
     def dry(self, dry_options, budget_options, periods, fixed_velocity=None, overrides=None,
             receptors=None):
         """(dry components over `periods`, notes) or (None, [])."""
-        node = self._dry_node(dry_options, budget_options, self._as_periods_node(periods),
-                              fixed_velocity, overrides, receptors)
+        rows = self._dry_rows_node(dry_options, budget_options, fixed_velocity, overrides,
+                                   receptors)
+        node = self._dry_node(rows, self._as_periods_node(periods))
         if node.value is None:
             return None, []
-        rows = self.dry_rows(dry_options, budget_options, fixed_velocity, overrides, receptors)
-        return node.value, rows["notes"]
+        return node.value, rows.value["notes"]
 
-    def _season_node(self, dry_options, budget_options, years: Node, hydro, fixed_velocity=None,
-                     overrides=None, receptors=None) -> Node:
+    def _season_node(self, rows: Node, years: Node, hydro) -> Node:
         y = years.value
         months = self._periods_node("month", y["start"].values[0], y["end"].values[-1], hydro)
-        dry_m = self._dry_node(dry_options, budget_options, months, fixed_velocity, overrides,
-                               receptors)
+        dry_m = self._dry_node(rows, months)
         if dry_m.value is None:
             return _NONE
         return self._run("season_coverage", deps={"dry_months": dry_m, "months": months,
@@ -364,8 +362,9 @@ class Study:
     def season_coverage(self, dry_options, budget_options, years, fixed_velocity=None,
                         overrides=None, receptors=None):
         """(site, year, species): every season has concentrations in that year."""
-        return self._season_node(dry_options, budget_options, self._as_periods_node(years), 10,
-                                 fixed_velocity, overrides, receptors).value
+        rows = self._dry_rows_node(dry_options, budget_options, fixed_velocity, overrides,
+                                   receptors)
+        return self._season_node(rows, self._as_periods_node(years), 10).value
 
     # ---------------------------------------------------------------- the budget
     def run(self, wet_options=None, dry_options=None, budget_options=None, fixed_velocity=None,
@@ -395,32 +394,32 @@ class Study:
         shown = tuple(receptors) if receptors is not None else tuple(every)
         opts = {"wet": wet_options, "dry": dry_options, "budget": budget_options}
 
+        vel = (self._velocities_node(dry_options, overrides, receptors)
+               if self._needs_model(fixed_velocity) else _NONE)
+        rows = self._dry_rows_node(dry_options, budget_options, fixed_velocity, overrides,
+                                   receptors, vel)
+
         def one(table, season_cov):
             wet = self._wet_node(wet_options, table)
-            dry = self._dry_node(dry_options, budget_options, table, fixed_velocity, overrides,
-                                 receptors)
+            dry = self._dry_node(rows, table)
             ds = self._run("budget", opts, {"wet": wet, "dry": dry, "catalogue": cat,
                                             "periods": table, "season_cov": season_cov},
                            {"receptors": shown})
             return ds, wet
 
-        season_cov = self._season_node(dry_options, budget_options, years, hy, fixed_velocity,
-                                       overrides, receptors)
+        season_cov = self._season_node(rows, years, hy)
         year_ds, wet_y = one(years, season_cov)
         if resolution == "year":
             res_ds, wet_r = year_ds, wet_y
         else:
             res_ds, wet_r = one(periods, _NONE)
-        rows = self.dry_rows(dry_options, budget_options, fixed_velocity, overrides, receptors)
         screened = self._screened_node(wet_options)
-        vel = (self._velocities_node(dry_options, overrides, receptors)
-               if self._needs_model(fixed_velocity) else _NONE)
         return Result(budget=res_ds.value, years=year_ds.value, screened=screened.value,
                       wet=wet_r.value, velocities=vel.value, periods=periods.value,
                       options={"wet": wet_options, "dry": dry_options, "budget": budget_options,
                                "fixed_velocity": fixed_velocity, "resolution": resolution,
                                "receptors": receptors},
-                      notes=[] if rows is None else rows["notes"],
+                      notes=[] if rows.value is None else rows.value["notes"],
                       keys={"budget": res_ds.key, "years": year_ds.key, "screened": screened.key,
                             "wet": wet_r.key, "velocities": vel.key},
                       graph=self.graph)
