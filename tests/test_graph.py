@@ -9,7 +9,6 @@ import numpy as np
 import pytest
 
 from workbench import graph as G
-from workbench import stages
 from workbench.budget import BudgetOptions
 from workbench.drydep import DryOptions
 from workbench.drydep.gas import SCHEMES
