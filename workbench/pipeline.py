@@ -265,7 +265,15 @@ class Study:
         return self.inputs.met is not None and any(sp not in (fixed_velocity or {}) for sp in measured)
 
     def _velocity_sets(self, dry_options, budget_options, fixed_velocity, overrides,
-                       receptors=None, vd=None) -> dict:
+                       receptors=None) -> dict:
+        """Gap-filled Vd per species: (filled Vd, was filled, source), as
+        :func:`workbench.drycomponents.prepare_velocities` gives them."""
+        nodes = self._velocity_nodes(dry_options, budget_options, dict(fixed_velocity or {}),
+                                     overrides, receptors)
+        return {k: n.value["vel"] for k, n in nodes.items()}
+
+    def _velocity_nodes(self, dry_options, budget_options, fixed_velocity, overrides,
+                        receptors=None, vd=None) -> dict:
         """Nodes of the gap-filled Vd per species (model or fixed value), each a stage
         keyed by the content of the species' Vd: a dry option that leaves it as it was
         (a particle size, for the gases) reuses its fill and its rows."""
@@ -306,8 +314,8 @@ class Study:
         if self.inputs.air is None or self.inputs.met is None:
             return _NONE
         fixed_velocity = dict(fixed_velocity or {})
-        vel = self._velocity_sets(dry_options, budget_options, fixed_velocity, overrides,
-                                  receptors, vd)
+        vel = self._velocity_nodes(dry_options, budget_options, fixed_velocity, overrides,
+                                   receptors, vd)
         if not vel:
             return _NONE
         ids = list(self.catalogue(overrides).ids)
