@@ -86,15 +86,15 @@ class OptionView:
             object.__setattr__(self, name, value)
 
     def __getattr__(self, name):
-        if name.startswith("_"):
+        if name.startswith("__") or name in OptionView.__slots__:     # (unpickling)
             raise AttributeError(name)
         obj = self._obj
         if name in _field_names(obj):
             if name not in self._allowed:
                 raise UndeclaredOptionRead(
                     f"stage {self._stage!r} read {self._group}.{name}, which it does not "
-                    f"declare (reads: {sorted(self._allowed)}); add it to the stage's reads "
-                    "in workbench/graph.py")
+                    f"declare (reads: {sorted(self._allowed)}); add it to the reads of the "
+                    "stage's declaration (@stage or declare)")
             return self._changes[name] if name in self._changes else getattr(obj, name)
         if name in ("to_dict", "to_json"):
             return getattr(self, "_" + name)
