@@ -10,17 +10,16 @@ Units: Vd [m s-1], concentrations [mol m-3] or [mol mol-1], deposition [mol m-2]
 """
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 import pandas as pd
 import xarray as xr
 
+from . import graph as _graph
 from .budget import COMPONENTS, PAIRS, BudgetError, BudgetOptions
 from .dryflux import (_cumulative, _hour_bounds, _inputs_for, deposition_rows, fill_diurnal,
                       period_axes, period_mean, share_to_periods)
-from .memo import digest, trim
-
-#: Shares of rows among periods kept by :func:`dry_components` (small arrays each).
-AGG_ENTRIES = 512
 
 
 def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=7,
@@ -131,30 +130,129 @@ def _fingerprint(air: xr.Dataset, species: str) -> str:
     censoring, detection limits, methods, sites and times), for content-keyed caches."""
     names = (species, f"{species}_censored", f"{species}_detection_limit",
              f"{species}_method", "site", "start", "end")
-    return digest([(n, air.variables[n]) for n in names if n in air.variables],
-                  str(air[species].attrs.get("quantity", "")))
+    return _graph.variables_digest([(n, air.variables[n]) for n in names if n in air.variables],
+                                   str(air[species].attrs.get("quantity", "")))
 
 
-def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=None):
+def fill_arrays(vd, was, source, sites) -> dict:
+    """What the rows read of a gap-filled Vd: the (site, receptor, time) arrays of the
+    sites and the cumulative counts of modelled and filled hours.
+
+    Parameters
+    ----------
+    vd, was : xarray.DataArray
+        Filled Vd [m s-1] and its fill mask, as :func:`prepare_velocities` gives them.
+    source : str
+    sites : sequence of str
+
+    Returns
+    -------
+    dict
+        ``vel`` (the (vd, was, source) triple), ``vd`` (DataArray on `sites`),
+        ``v_np`` [m s-1], ``c_valid`` and ``c_fill`` (cumulative hour counts).
+    """
+    sites = list(sites)
+    v, w = vd, was
+    if list(v["site"].values) != sites:
+        v, w = v.reindex(site=sites), w.reindex(site=sites, fill_value=False)
+    v = v.transpose("site", "receptor", "time")
+    was_np = w.transpose("site", "receptor", "time").values
+    valid_raw = np.isfinite(v.values) & ~was_np
+    return {"vel": (vd, was, source), "vd": v, "v_np": v.values,
+            "c_valid": _cumulative(valid_raw.astype(float)),
+            "c_fill": _cumulative(was_np.astype(float))}
+
+
+# ------------------------------------------------------------------ stages of the rows
+@_graph.stage("air_basis", reads={"budget": ("sulfate_basis", "pair_split")})
+def prepared_air(o, air):
+    """The air concentrations as the budget options read them (non-sea-salt sulfate,
+    the pairs moved into one member)."""
+    options = o.budget
+    prepared = _nss_particles(air, options.sulfate_basis)
+    if options.pair_split != "measured":
+        for pair, (gas, part) in PAIRS.items():
+            if gas in prepared and part in prepared:
+                prepared = _pair_air(prepared, pair,
+                                     gas if options.pair_split == "all_gas" else part)
+    return prepared
+
+
+@_graph.stage("pair_air")
+def pair_air(o, air, pair, into):
+    """The prepared air with both members of a pair moved into `into` (a bracket)."""
+    return _pair_air(air, pair, into)
+
+
+@_graph.stage("air_content")
+def air_content(o, air, species):
+    """Digest of what a species' rows read from an air Dataset (:func:`_fingerprint`)."""
+    return _fingerprint(air, species)
+
+
+@_graph.stage("flux_inputs", reads={"budget": ("air_censored", "min_slot_hours",
+                                                "diurnal_profile", "preferred_method")})
+def flux_inputs(o, air, axes, met, species, sites):
+    """The air side of a species' rows (samplers, censoring, weights; independent of
+    Vd but for its site and time axes)."""
+    rows, site_of, conc, cens, quantity, weight, n_air, notes = _inputs_for(
+        air, species, axes, met, o.budget.flux_options())
+    return (rows, pd.Index(list(sites)).get_indexer(site_of), conc[rows], quantity, weight,
+            n_air, notes, air["start"].values[rows], air["end"].values[rows],
+            np.asarray(cens)[rows])
+
+
+@_graph.stage("species_rows")
+def species_rows(o, inputs, fill, times):
+    """Deposition over every sampling period of one species (:func:`deposition_rows`)."""
+    si, conc, quantity, weight, n_air, notes, t0, t1, cens = inputs[1:]
+    r = deposition_rows(conc, quantity, si, t0, t1, times, fill["v_np"], n_air, weight)
+    r["site_index"] = si
+    r["conc"] = conc
+    r["quantity"] = quantity
+    r["censored"] = cens                 # below detection (value substituted)
+    return r, notes
+
+
+@_graph.stage("nh3_emission_rows")
+def nh3_emission_rows(o, deposition, inputs, emission, times):
+    """The emission part of the net NH3 flux over each NH3 sampling period."""
+    si, conc, t0, t1 = inputs[1], inputs[2], inputs[7], inputs[8]
+    e = deposition_rows(np.ones(len(conc)), "amount_density", si, t0, t1, times,
+                        emission["v_np"])
+    dep = deposition[0]
+    e["deposition"] = np.where(np.isfinite(dep["deposition"]), e["deposition"], np.nan)
+    e["site_index"] = si
+    return e
+
+
+@_graph.stage("vd_axes")
+def vd_axes(o, fill):
+    """Digest of a filled Vd's site and time axes (what :func:`flux_inputs` reads of it)."""
+    vd = fill["vd"]
+    return _graph.content_digest([np.asarray(vd["site"].values, object), vd["time"].values])
+
+
+def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=None):
     """Deposition over every air-sampling period of every species (period-independent).
 
     Parameters
     ----------
-    air : xarray.Dataset
+    air : xarray.Dataset or workbench.graph.Node
     vel : dict
-        Output of :func:`prepare_velocities`.
+        species -> the (vd, was, source) triples of :func:`prepare_velocities`, or
+        Nodes of :func:`fill_arrays` results (the fill stage's).
     met : xarray.Dataset or None
     sites : list of str
     options : BudgetOptions
-    memo : dict, optional
-        Reused between calls with the same air preparation (sulfate basis, pair split,
-        censoring, profile, method): keyed by species and the identity of its Vd, so a
-        change of one species' velocity recomputes that species only.
-    shared : dict, optional
-        Reused between calls with any air preparation: the per-species rows keyed by
-        the content of the air columns they read (:func:`_fingerprint`), the flux
-        options and the identity of the Vd, and the cumulative Vd counts; so a change
-        of the pair split recomputes the pair members only.
+    graph : workbench.graph.Graph, optional
+        Where the pieces are cached (a new graph when None): the prepared air
+        (``air_basis``), each species' air side (``flux_inputs``, keyed by the content
+        of the air columns it reads) and rows (``species_rows``), the brackets and the
+        NH3 emission rows; so a change of one species' Vd recomputes that species
+        only, and a change of the pair split the pair members only.
+    counts : dict, optional
+        As for :meth:`workbench.graph.Graph.run`.
 
     Returns
     -------
@@ -165,128 +263,84 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, memo=None, shared=Non
         (pair, how) -> the rows with the pair moved into one member;
         ``"nh3_exchange"`` (when `vel` holds :data:`NH3_EXCHANGE`): the deposition and
         emission parts of the net NH3 flux per NH3 sampling period; ``"notes"``,
-        ``"measured"`` (site x species bool), ``"receptors"``, ``"times"``, ``"sites"``.
+        ``"measured"`` (site x species bool), ``"receptors"``, ``"times"``, ``"sites"``;
+        ``"keys"``: the node key of each piece of rows (for :func:`dry_components`).
     """
-    memo = {} if memo is None else memo
-    fopt = options.flux_options()
-    species_list = [c[2] for c in COMPONENTS if c[1] == "dry"]
-    any_vd = next(iter(vel.values()))[0]
-    times = any_vd["time"].values
     sites = list(sites)
-    shared = memo if shared is None else shared
-    fkey = repr(fopt)
-    # the air as the budget options prepare it (the same for any Vd): kept with the
-    # shared entries, keyed by the options and the identity of the air Dataset
-    akey = ("air", id(air), options.sulfate_basis, options.pair_split)
-    if akey not in shared:
-        prepared = _nss_particles(air, options.sulfate_basis)
-        if options.pair_split != "measured":
-            for pair, (gas, part) in PAIRS.items():
-                if gas in prepared and part in prepared:
-                    prepared = _pair_air(prepared, pair,
-                                         gas if options.pair_split == "all_gas" else part)
-        shared[akey] = (prepared, air)                  # the input held: its id stays unique
-    raw_air, air = air, shared[akey][0]
+    if graph is None:            # a graph of this call: the inputs need no identity
+        graph = _graph.Graph()
+        air, met = _graph.input_node("air", "", air), _graph.input_node("met", "", met)
+        vel = {sp: _graph.input_node("vel", sp, fill_arrays(*v, sites)) for sp, v in vel.items()}
+    elif not all(isinstance(x, _graph.Node) for x in (air, met, *vel.values())):
+        raise TypeError("dry_rows with a graph needs Nodes for air, met and vel")
+    nodes = dict(vel)
+    species_list = [c[2] for c in COMPONENTS if c[1] == "dry"]
+    any_vd = next(iter(nodes.values())).value["vel"][0]
+    times = any_vd["time"].values
+    opts = {"budget": options}
+    run = functools.partial(graph.run, options=opts, counts=counts)
+    axes = {}
 
-    def arrays(sp):
-        key = ("arrays", sp, id(vel[sp]), tuple(sites))
-        if key not in shared:
-            vd, was, _ = vel[sp]
-            if list(vd["site"].values) != sites:
-                vd, was = vd.reindex(site=sites), was.reindex(site=sites, fill_value=False)
-            vd = vd.transpose("site", "receptor", "time")
-            was_np = was.transpose("site", "receptor", "time").values
-            valid_raw = np.isfinite(vd.values) & ~was_np
-            shared[key] = (vd, vd.values, _cumulative(valid_raw.astype(float)),
-                           _cumulative(was_np.astype(float)), vel[sp])
-        return shared[key]
+    def axes_node(fill):       # the axes by their content (those of this call by fill)
+        if fill.key not in axes:
+            d = run("vd_axes", deps={"fill": fill}).value
+            axes[fill.key] = _graph.Node("vd_axes:" + d, fill.value["vd"])
+        return axes[fill.key]
+    times_node = _graph.Node(axes_node(next(iter(nodes.values()))).key + ":times", times)
+    met_node = met
+    prepared = run("air_basis", deps={"air": air})
 
-    def fingerprint(air_in, sp):
-        key = ("fingerprint", id(air_in), sp)
-        if key not in shared:
-            shared[key] = (_fingerprint(air_in, sp), air_in)   # held: the id stays unique
-        return shared[key][0]
-
-    def inputs(air_in, sp, vd):
-        """The air side of a species' rows (independent of Vd), keyed by content."""
-        key = ("inputs", sp, tuple(sites), len(times), fkey, fingerprint(air_in, sp))
-        if key not in shared:
-            rows, site_of, conc, cens, quantity, weight, n_air, notes = _inputs_for(
-                air_in, sp, vd, met, fopt)
-            shared[key] = (rows, pd.Index(sites).get_indexer(site_of), conc[rows], quantity,
-                           weight, n_air, notes, air_in["start"].values[rows],
-                           air_in["end"].values[rows], np.asarray(cens)[rows])
-        return shared[key]
-
-    def one(air_in, sp, vd_sp, key):
-        key = ("rows", sp, id(vel[vd_sp]), tuple(sites), fkey, fingerprint(air_in, sp))
-        if key not in shared:
-            vd, v_np = arrays(vd_sp)[:2]
-            _, si, conc, quantity, weight, n_air, notes, t0, t1, cens = inputs(air_in, sp, vd)
-            r = deposition_rows(conc, quantity, si, t0, t1, times, v_np, n_air, weight)
-            r["site_index"] = si
-            r["conc"] = conc
-            r["quantity"] = quantity
-            r["censored"] = cens                 # below detection (value substituted)
-            shared[key] = (r, notes, vel[vd_sp])     # the Vd held: its id stays unique
-        return shared[key][:2]
+    def one(air_node, sp, vd_sp):
+        content = run("air_content", deps={"air": air_node}, params={"species": sp})
+        air_c = _graph.Node("air_content:" + content.value, air_node.value)
+        inputs = run("flux_inputs", deps={"air": air_c, "axes": axes_node(nodes[vd_sp]),
+                                          "met": met_node},
+                     params={"species": sp, "sites": tuple(sites)})
+        return inputs, run("species_rows", deps={"inputs": inputs, "fill": nodes[vd_sp],
+                                                 "times": times_node})
 
     out = {"species": {}, "bracket": {}, "notes": [], "times": times,
-           "receptors": any_vd["receptor"].values, "sites": sites, "vd_cum": {}}
+           "receptors": any_vd["receptor"].values, "sites": sites, "vd_cum": {},
+           "keys": {"times": times_node.key}}
+    air_v = prepared.value
     for sp in species_list:
-        if sp not in air or sp not in vel:
+        if sp not in air_v or sp not in nodes:
             continue
-        r, notes = one(air, sp, sp, ("rows", sp))
-        out["species"][sp] = r
-        out["vd_cum"][sp] = arrays(sp)[2:4]
+        _, node = one(prepared, sp, sp)
+        out["species"][sp], notes = node.value
+        out["keys"][sp] = node.key
+        out["vd_cum"][sp] = (nodes[sp].value["c_valid"], nodes[sp].value["c_fill"])
         out["notes"].extend(notes)
-    if "NH3" in out["species"] and all(k in vel for k in NH3_EXCHANGE):
-        out["nh3_exchange"] = _nh3_exchange_rows(air, one, arrays, inputs, shared, vel, sites,
-                                                 times, fkey, fingerprint)
+    if "NH3" in out["species"] and all(k in nodes for k in NH3_EXCHANGE):
+        inputs, dep = one(prepared, "NH3", "NH3_bidirectional")
+        em = run("nh3_emission_rows", deps={"deposition": dep, "inputs": inputs,
+                                            "emission": nodes["NH3_emission"],
+                                            "times": times_node})
+        out["nh3_exchange"] = {"deposition": dep.value[0], "emission": em.value}
+        out["keys"]["nh3|deposition"], out["keys"]["nh3|emission"] = dep.key, em.key
     for pair, (gas, part) in PAIRS.items():
-        if gas in air and part in air and gas in vel and part in vel:
+        if gas in air_v and part in air_v and gas in nodes and part in nodes:
             for how, into in (("all_gas", gas), ("all_particle", part)):
-                bkey = ("bracket", pair, how, id(vel[gas]), id(vel[part]))
-                if bkey not in memo:
-                    pkey = ("pair_air", id(raw_air), options.sulfate_basis, options.pair_split,
-                            pair, into)
-                    if pkey not in shared:
-                        shared[pkey] = (_pair_air(air, pair, into), raw_air)
-                    memo[bkey] = one(shared[pkey][0], into, into, bkey)[0]
-                out["bracket"][(pair, how)] = memo[bkey]
+                moved = run("pair_air", deps={"air": prepared},
+                            params={"pair": pair, "into": into})
+                _, node = one(moved, into, into)
+                out["bracket"][(pair, how)] = node.value[0]
+                out["keys"][("bracket", pair, how)] = node.key
     out["measured"] = np.stack(
-        [np.isin(sites, np.unique(air["site"].values[np.isfinite(air[sp].values)]))
-         if sp in air else np.zeros(len(sites), bool) for sp in species_list], -1)
+        [np.isin(sites, np.unique(air_v["site"].values[np.isfinite(air_v[sp].values)]))
+         if sp in air_v else np.zeros(len(sites), bool) for sp in species_list], -1)
     return out
 
 
-def _nh3_exchange_rows(air, one, arrays, inputs, shared, vel, sites, times, fkey,
-                       fingerprint):
-    """The two parts of the net NH3 flux over each NH3 sampling period.
-
-    ``deposition``: C mean(Vd_bd) dt with the compensation point model's Vd, and
-    ``emission``: mean(E) dt [mol m-2] over the same hours (independent of C, so the
-    same for a concentration and a mixing ratio), NaN where the deposition part is
-    unknown; each with its own cumulative hourly sums (``cs``) so that a sampling
-    period straddling a reporting boundary shares each part by its own hours.
-    The net flux over a period is ``deposition - emission`` (positive down).
-    """
-    dep = one(air, "NH3", "NH3_bidirectional", None)[0]
-    key = ("nh3 emission rows", id(vel["NH3_emission"]), tuple(sites), fkey,
-           fingerprint(air, "NH3"))
-    if key not in shared:
-        vd = arrays("NH3_bidirectional")[0]
-        _, si, conc, _, _, _, _, t0, t1, _ = inputs(air, "NH3", vd)
-        e_np = vel["NH3_emission"][0].reindex(site=sites).transpose(
-            "site", "receptor", "time").values
-        e = deposition_rows(np.ones(len(conc)), "amount_density", si, t0, t1, times, e_np)
-        e["deposition"] = np.where(np.isfinite(dep["deposition"]), e["deposition"], np.nan)
-        e["site_index"] = si
-        shared[key] = (e, vel["NH3_emission"])        # the input held: its id stays unique
-    return {"deposition": dep, "emission": shared[key][0]}
+@_graph.stage("period_shares")
+def period_shares(o, rows, periods, n_sites, times):
+    """One piece of rows shared among reporting periods (:func:`share_to_periods`)."""
+    r = rows[0] if isinstance(rows, tuple) else rows
+    return share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"], r["cs"],
+                            n_sites, period_axes(periods), times, r["start"], r["end"])
 
 
-def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
+def dry_components(rows: dict, periods: pd.DataFrame, share=None):
     """Dry deposition of every measured species over the reporting periods.
 
     Parameters
@@ -294,11 +348,11 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
     rows : dict
         Output of :func:`dry_rows`.
     periods : pandas.DataFrame
-    memo : dict, optional
-        Kept between calls: the share of each species' rows among the periods, keyed
-        by the identity of its rows (which :func:`dry_rows` reuses while their inputs
-        stay the same) and the periods, so that an option touching one species
-        shares that species only.
+    share : callable, optional
+        ``share(name, rows_piece)`` -> the piece shared among `periods` (the output of
+        :func:`share_to_periods`); `name` is the piece's entry of ``rows["keys"]``.
+        The pipeline runs it as the ``period_shares`` stage, so that an option
+        touching one species shares that species only.  Default: computed here.
 
     Returns
     -------
@@ -326,24 +380,17 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
     pa, pb = _hour_bounds(times, axes.start, axes.end)
     hours_p = axes.hours
 
-    labels = tuple(periods["label"])
-
-    def agg(r):
-        key = (id(r), n_s, labels)
-        if memo is not None and key in memo:
-            return memo[key][0]
-        out = share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"], r["cs"],
-                               n_s, axes, times, r["start"], r["end"])
-        if memo is not None:
-            memo[key] = (out, r)                      # the rows held: their id stays unique
-            trim(memo, AGG_ENTRIES)
-        return out
+    def agg(name, r):
+        if share is not None:
+            return share(name, r)
+        return share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"], r["cs"],
+                                n_s, axes, times, r["start"], r["end"])
 
     for k, sp in enumerate(species_list):
         if sp not in rows["species"]:
             continue
         r = rows["species"][sp]
-        d, c, _, fh = agg(r)
+        d, c, _, fh = agg(sp, r)
         dep[..., k], cov[..., k] = d, c
         flux_cov[..., k] = np.clip(fh / np.maximum(hours_p, 1), 0, 1)
         ratio[k] = r.get("quantity") == "mixing_ratio"
@@ -355,7 +402,8 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
     nh3 = {}
     if "nh3_exchange" in rows:        # net = deposition part - emission part, per period
         ex = rows["nh3_exchange"]
-        d_bd, e = agg(ex["deposition"])[0], agg(ex["emission"])[0]
+        d_bd = agg("nh3|deposition", ex["deposition"])[0]
+        e = agg("nh3|emission", ex["emission"])[0]
         dims3 = ("site", "receptor", "period")
         nh3 = {"nh3_net": (dims3, d_bd - e, {
                    "units": "mol m-2", "long_name": "net NH3 exchange of the compensation "
@@ -375,7 +423,8 @@ def dry_components(rows: dict, periods: pd.DataFrame, memo: dict | None = None):
          "concentration": (("site", "period", "species"), conc,
                            {"units": "mol m-3", "long_name": "time-weighted mean concentration "
                             "over the covered hours (amount of species; ambient)"}),
-         **{f"bracket_{pair}_{how}": (("site", "receptor", "period"), agg(r)[0],
+         **{f"bracket_{pair}_{how}": (("site", "receptor", "period"),
+                                      agg(("bracket", pair, how), r)[0],
                                       {"units": "mol m-2"})
             for (pair, how), r in rows["bracket"].items()}, **nh3},
         coords={"site": sites, "receptor": receptors, "period": periods["label"].values,

@@ -1,9 +1,10 @@
-"""Helpers of the caches: bounded dicts and content digests.
+"""Small helpers: a bounded dict and a content digest.
 
-The caches of :class:`workbench.pipeline.Study` and of
-:func:`workbench.drydep.velocities` keep their entries in plain dicts, oldest first
-(insertion order); :func:`trim` and :func:`recent` bound them.  Content-keyed caches key
-an intermediate by :func:`digest` of the xarray Variables it reads.
+The caches of the pipeline are the one stage graph of :mod:`workbench.graph` (keys
+derived from the options each stage declares); what is left here is :func:`trim`,
+which bounds the small table of hour slots of :mod:`workbench.dryflux`, and
+:func:`digest` of xarray Variables (the graph has its own,
+:func:`workbench.graph.variables_digest`).
 """
 from __future__ import annotations
 
@@ -16,15 +17,6 @@ def trim(entries: dict, limit: int) -> None:
     """Drop the oldest entries of `entries` (insertion order) beyond `limit`."""
     while len(entries) > limit:
         entries.pop(next(iter(entries)))
-
-
-def recent(entries: dict, key, limit: int, make=dict):
-    """``entries[key]`` (``make()`` when new), moved to the most recent place; the
-    oldest entries beyond `limit` are dropped."""
-    value = entries.pop(key) if key in entries else make()
-    entries[key] = value
-    trim(entries, limit)
-    return value
 
 
 def digest(variables, *texts: str) -> str:

@@ -1,71 +1,51 @@
-"""A study: the inputs of a scenario and its computation stages, each cached.
+"""A study: the inputs of a scenario, its stages run through one stage graph.
 
-Stages and what invalidates them:
+Every stage is a named pure function declaring the option fields it reads
+(:mod:`workbench.stages`, :mod:`workbench.drycomponents`, :mod:`workbench.drydep.core`;
+docs/engine.md lists them).  :class:`Study` runs them in a :class:`workbench.graph.Graph`,
+whose one bounded cache keys each result by a digest of the stage name, the values
+of the declared fields, the keys of the upstream results and the identity of the
+inputs (the study's token, the site overrides, the receptors asked for).  So:
 
 ======================  =====================================================
-stage                   recomputed when
+stage                   computed again when
 ======================  =====================================================
-``screened``            wet options change
-``wet``                 wet options or the periods change
-``velocities``          dry options or the site overrides change (met-derived,
-                        the expensive stage)
-``dry``                 budget options, fixed velocities or periods change
-``budget``              anything above changes
+``screen``              a wet QA option changes
+``wet``                 any wet option or the periods change
+``velocities``          a dry option (but ``compare_schemes``) or the site
+                        overrides change; its steps (surface layer, canopy
+                        state, gases, each particle mode) only when their own
+                        declared options change
+``vd_fill``, rows       the content of a species' Vd, or a flux option
+``budget``              anything above or a budget option changes
 ======================  =====================================================
 
-So a change of a wet option never recomputes Vd.
+A wet option never recomputes Vd; a particle fine fraction recomputes no step of the
+velocities (only their assembly) and no gas's rows.
 """
 from __future__ import annotations
 
 import dataclasses
 import functools
-import json
+import uuid
 from dataclasses import dataclass, field
+from types import SimpleNamespace
 
 import numpy as np
 import pandas as pd
 import xarray as xr
 
-from . import periods as _periods
-from .budget import COMPONENTS, BudgetOptions, assemble, derived
-from .drycomponents import dry_components, dry_rows, nh3_exchange_velocities, prepare_velocities
+from . import stages as _stages
+from .budget import COMPONENTS, BudgetOptions
+from .drycomponents import dry_components, dry_rows
+from .graph import Graph, Node, content_digest, input_node, token
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
-from .memo import digest, recent, trim
 from .tables import budget_table, span_table
 
-
-#: Wet options that act on periods only (completeness, fills, sea salt), so that a change
-#: of one of them does not screen the samples again.
-WET_PERIOD_OPTIONS = ("hydro_start_month", "straddle", "min_gauge_fraction",
-                      "min_coverage_fraction", "min_valid_precip_fraction", "min_valid_samples",
-                      "period_fill", "seasalt_tracer")
-
-
-#: Results kept per stage where they are large (hourly arrays): older ones are
-#: computed again when asked for.  Velocities of a site-year are ~15 MB.
-STAGE_LIMITS = {"velocities": 8, "dry": 400, "wet": 64, "screened": 16}
-#: Entries kept in the content-keyed memo of the dry rows, and option sets whose own
-#: memo (brackets) is kept; the oldest go first and are computed again when asked for.
-SHARED_ENTRIES = 3000
-OPTION_MEMOS = 16
-#: Sets of receptor surfaces (site overrides) whose velocity steps are kept.
-VELOCITY_STEP_SETS = 2
-
-
-def _rkey(receptors) -> str:
-    """Cache-key part of a receptor subset ("" for every receptor)."""
-    return "" if receptors is None else "|receptors=" + ",".join(map(str, receptors))
-
-
-def _key(obj) -> str:
-    if obj is None:
-        return "None"
-    if hasattr(obj, "to_json"):
-        return obj.to_json()
-    if dataclasses.is_dataclass(obj):
-        return repr(obj)
-    return json.dumps(obj, sort_keys=True, default=str)
+#: Kept for older imports: the wet options of the wet chain alone.
+WET_PERIOD_OPTIONS = _stages.WET_PERIOD_OPTIONS
+_NONE = input_node("none", "", None)
 
 
 @dataclass
@@ -86,6 +66,10 @@ class Result:
     periods: pd.DataFrame
     options: dict = field(default_factory=dict)
     notes: list = field(default_factory=list)
+    #: stage name -> the graph key of the result shown here (``"years"``, ``"budget"``,
+    #: ``"screened"``, ``"wet"``, ``"velocities"``): equal keys, equal numbers.
+    keys: dict = field(default_factory=dict)
+    graph: Graph | None = field(default=None, repr=False, compare=False)
 
     @functools.cached_property
     def table(self) -> pd.DataFrame:
@@ -96,11 +80,14 @@ class Result:
     @functools.cached_property
     def derived(self) -> xr.Dataset:
         """Shares, oxidized / reduced N, potential acidity, brackets, total nitrate."""
-        return derived(self.budget)
+        key = self.keys.get("budget")
+        if self.graph is None or key is None:
+            return _stages.derived_quantities(None, self.budget)
+        return self.graph.run("derived", deps={"budget": Node(key, self.budget)}).value
 
 
 class Study:
-    """The inputs of a study and the cached computation stages.
+    """The inputs of a study and its stages, run through a stage graph.
 
     Parameters
     ----------
@@ -108,13 +95,23 @@ class Study:
         As read by :func:`workbench.io.load_inputs`.
     site_overrides : dict, optional
         site id -> {catalogue key: value} (the scenario's ``[sites.<id>]`` tables).
+    graph : workbench.graph.Graph, optional
+        The graph (and its one bounded cache) to run in; several studies may share one
+        (each study's inputs have their own token).  Default: a graph of its own.
+
+    Attributes
+    ----------
+    counts : dict
+        Computations of the screening, the wet chain, the velocities, the dry pieces
+        (fills, rows, components) and the budget by this study.
     """
 
-    def __init__(self, inputs: Inputs, site_overrides=None):
+    def __init__(self, inputs: Inputs, site_overrides=None, graph: Graph | None = None):
         self.inputs = inputs
         self.site_overrides = dict(site_overrides or {})
-        self._cache = {}
-        self._memo = {}
+        self.graph = Graph() if graph is None else graph
+        #: identity of the inputs in the graph's keys (the inputs are not changed)
+        self.token = uuid.uuid4().hex
         self.counts = {"screened": 0, "wet": 0, "velocities": 0, "dry": 0, "budget": 0}
 
     # ---------------------------------------------------------------- construction
@@ -180,81 +177,86 @@ class Study:
             ends.append(t[-1])
         return min(starts), max(ends)
 
+    # ---------------------------------------------------------------- graph nodes
+    def _input(self, name, value, *extra) -> Node:
+        """Node of an input of this study (its token; `extra` values enter the key)."""
+        if value is None:
+            return _NONE
+        ident = self.token if not extra else self.token + ":" + content_digest(
+            [], repr(token(extra)))
+        return input_node(name, ident, value)
+
+    def _catalogue_node(self, overrides=None) -> Node:
+        over = {**self.site_overrides, **(overrides or {})}
+        return self._input("catalogue", self.catalogue(overrides), over)
+
+    def _run(self, name, options=None, deps=None, params=None, fn=None) -> Node:
+        return self.graph.run(name, options, deps, params, fn, counts=self.counts)
+
+    def _periods_node(self, resolution="year", start=None, end=None, hydro_start_month=10):
+        return self._run("periods", {"wet": SimpleNamespace(hydro_start_month=hydro_start_month)},
+                         params={"span": tuple(self.span()), "resolution": resolution,
+                                 "start": None if start is None else str(start),
+                                 "end": None if end is None else str(end)})
+
     def periods(self, resolution="year", start=None, end=None, hydro_start_month=10):
-        key = (resolution, str(start), str(end), hydro_start_month)
-        if ("periods", key) not in self._cache:
-            s0, e0 = self.span()
-            t0 = np.datetime64(start) if start else s0
-            t1 = np.datetime64(end) if end else e0
-            self._cache[("periods", key)] = _periods.make_periods(
-                t0, t1, resolution, hydro_start_month=hydro_start_month)
-        return self._cache[("periods", key)]
+        """The reporting periods (a table; see :func:`workbench.periods.make_periods`)."""
+        return self._periods_node(resolution, start, end, hydro_start_month).value
+
+    def _as_periods_node(self, periods) -> Node:
+        """A periods table given by a caller, as a node (keyed by its content)."""
+        cols = [periods[c].to_numpy() for c in periods.columns]
+        return Node("periods:" + content_digest(cols, *periods.columns), periods)
 
     # ---------------------------------------------------------------- stages
-    def _cached(self, name, key, fn):
-        k = (name, key)
-        if k not in self._cache:
-            self._cache[k] = fn()
-            self.counts[name] += 1
-            limit = STAGE_LIMITS.get(name)
-            if limit is not None:
-                mine = [c for c in self._cache if c[0] == name]
-                for old in mine[:-limit]:                    # the oldest first
-                    del self._cache[old]
-        return self._cache[k]
+    def _screened_node(self, wet_options) -> Node:
+        if self.inputs.precipitation is None:
+            return _NONE
+        return self._run("screen", {"wet": wet_options},
+                         {"precipitation": self._input("precipitation", self.inputs.precipitation),
+                          "met": self._input("met", self.inputs.met)})
 
     def screened(self, wet_options):
-        from .wet import screen
-        if self.inputs.precipitation is None:
-            return None
-        qa = {k: v for k, v in wet_options.to_dict().items() if k not in WET_PERIOD_OPTIONS}
-        return self._cached("screened", _key(qa),
-                            lambda: screen(self.inputs.precipitation, wet_options, met=self.inputs.met))
+        """Per-sample QA (None without precipitation samples)."""
+        return self._screened_node(wet_options).value
+
+    def _wet_node(self, wet_options, periods: Node) -> Node:
+        scr = self._screened_node(wet_options)
+        if scr.value is None:
+            return _NONE
+        return self._run("wet", {"wet": wet_options},
+                         {"screened": scr, "periods": periods,
+                          "met": self._input("met", self.inputs.met)})
 
     def wet(self, wet_options, periods: pd.DataFrame):
-        from .wet import wet_deposition
-        scr = self.screened(wet_options)
-        if scr is None:
-            return None
-        key = _key(wet_options) + "|" + ",".join(periods["label"])
-        return self._cached("wet", key, lambda: wet_deposition(scr, periods, wet_options,
-                                                               met=self.inputs.met))
+        """Wet deposition over `periods` (None without precipitation samples)."""
+        return self._wet_node(wet_options, self._as_periods_node(periods)).value
+
+    def _surfaces_node(self, overrides=None) -> Node:
+        return self._run("surfaces", deps={"catalogue": self._catalogue_node(overrides)})
+
+    def surfaces(self, overrides=None) -> xr.Dataset:
+        """Receptor surfaces of the catalogue with the overrides (a stage of the graph)."""
+        return self._surfaces_node(overrides).value
+
+    def _velocities_node(self, dry_options, overrides=None, receptors=None) -> Node:
+        if self.inputs.met is None:
+            return _NONE
+        met = self._input("met", self.inputs.met)
+        surf = self._surfaces_node(overrides)
+        steps = self.graph.steps(f"{met.key}+{surf.key}", self.counts)
+        return self._run("velocities", {"dry": dry_options},
+                         {"met": met, "surfaces": surf, "catalogue": self._catalogue_node(overrides),
+                          "steps": Node(f"input:steps:{met.key}+{surf.key}", steps)},
+                         {"receptors": None if receptors is None else tuple(receptors)})
 
     def velocities(self, dry_options, overrides=None, receptors=None):
         """Hourly Vd and resistances (all receptors, or the ones named)."""
-        from .drydep import velocities
-        if self.inputs.met is None:
-            return None
-        over = _key({**self.site_overrides, **(overrides or {})}) + _rkey(receptors)
-        # the steps inside are cached too, per set of surfaces: an option change
-        # recomputes only the steps that depend on it (a particle size: that mode only)
-        steps = recent(self._memo.setdefault("velocity steps", {}), over, VELOCITY_STEP_SETS)
-        return self._cached("velocities", repr(dry_options) + "|" + over,
-                            lambda: velocities(self.inputs.met, self.surfaces(overrides),
-                                               self._site_nh3(dry_options, overrides),
-                                               cache=steps, receptors=receptors))
-
-    def _site_nh3(self, dry_options, overrides=None):
-        """The dry options with the catalogue's per-site NH3 emission potentials
-        (``"<site>/<class>"`` keys; a scenario's own such key wins)."""
-        if getattr(dry_options, "nh3_treatment", "") != "bidirectional":
-            return dry_options
-        site_g = self.catalogue(overrides).nh3_emission_potential()
-        if not site_g:
-            return dry_options
-        return dataclasses.replace(dry_options, nh3_emission_potential={
-            **site_g, **dry_options.nh3_emission_potential})
+        return self._velocities_node(dry_options, overrides, receptors).value
 
     def receptors(self, overrides=None) -> list:
         """Every receptor surface of the sites, in the order of the budget."""
         return list(dict.fromkeys(r for s in self.catalogue(overrides) for r in s.surfaces))
-
-    def surfaces(self, overrides=None) -> xr.Dataset:
-        """Receptor surfaces of the catalogue with the overrides (cached per overrides)."""
-        key = ("surfaces", _key({**self.site_overrides, **(overrides or {})}))
-        if key not in self._memo:
-            self._memo[key] = self.catalogue(overrides).surfaces()
-        return self._memo[key]
 
     def _needs_model(self, fixed_velocity) -> bool:
         """True when a measured dry species has no fixed velocity."""
@@ -263,117 +265,114 @@ class Study:
         return self.inputs.met is not None and any(sp not in (fixed_velocity or {}) for sp in measured)
 
     def _velocity_sets(self, dry_options, budget_options, fixed_velocity, overrides,
-                       receptors=None):
-        """Gap-filled Vd per species, each cached on its own (model or fixed value)."""
+                       receptors=None) -> dict:
+        """Gap-filled Vd per species: (filled Vd, was filled, source), as
+        :func:`workbench.drycomponents.prepare_velocities` gives them."""
+        nodes = self._velocity_nodes(dry_options, budget_options, dict(fixed_velocity or {}),
+                                     overrides, receptors)
+        return {k: n.value["vel"] for k, n in nodes.items()}
+
+    def _velocity_nodes(self, dry_options, budget_options, fixed_velocity, overrides,
+                        receptors=None, vd=None) -> dict:
+        """Nodes of the gap-filled Vd per species (model or fixed value), each a stage
+        keyed by the content of the species' Vd: a dry option that leaves it as it was
+        (a particle size, for the gases) reuses its fill and its rows."""
         dry_species = [c[2] for c in COMPONENTS if c[1] == "dry"]
-        need_model = self._needs_model(fixed_velocity)
-        vd = self.velocities(dry_options, overrides, receptors) if need_model else None
-        cat = self.catalogue(overrides)
-        receptors = list(receptors) if receptors is not None else self.receptors(overrides)
-        met = self.inputs.met
+        if vd is None:
+            vd = (self._velocities_node(dry_options, overrides, receptors)
+                  if self._needs_model(fixed_velocity) else _NONE)
+        ids = tuple(self.catalogue(overrides).ids)
+        opts = {"budget": budget_options}
+        every = tuple(receptors) if receptors is not None else tuple(self.receptors(overrides))
+
+        def content(var):
+            d = self._run("vd_content", deps={"velocities": vd}, params={"variable": var})
+            scheme = vd.value.attrs.get("gas_scheme", "model")
+            return Node("vd_content:" + d.value, (vd.value[var], scheme))
+
         out = {}
         for sp in dry_species:
-            fixed = {sp: fixed_velocity[sp]} if sp in fixed_velocity else {}
-            if not fixed and vd is None:
-                continue
-
-            def make(sp=sp, fixed=fixed):
-                template = xr.DataArray(
-                    np.full((len(cat.ids), len(receptors), met.sizes["time"]), np.nan),
-                    dims=("site", "receptor", "time"),
-                    coords={"site": cat.ids, "receptor": receptors, "time": met["time"].values})
-                got = prepare_velocities(vd if not fixed else None, [sp], fixed,
-                                         budget_options.min_slot_hours, template)
-                return got.get(sp)
-
-            # keyed by the content of the species' Vd: a dry option that leaves it as it
-            # was (a particle size, for the gases) reuses its fill and its dry rows
-            which = (self._vd_digest(vd, sp) if not fixed and f"vd_{sp}" in vd else
-                     _key(overrides) + _rkey(receptors))
-            entry = self._cached("dry", f"vel|{sp}|{fixed.get(sp)}|{which}|"
-                                 f"{budget_options.min_slot_hours}", make)
-            if entry is not None:
-                out[sp] = entry
-        if (getattr(dry_options, "nh3_treatment", "") == "bidirectional" and vd is not None
-                and "vd_NH3_bidirectional" in vd and "NH3" in out
+            if sp in fixed_velocity:
+                axes = self._input("axes", (ids, every, self.inputs.met["time"].values),
+                                   overrides, every)
+                out[sp] = self._run("vd_fill", opts, {"vd": axes},
+                                    {"name": sp, "fixed": fixed_velocity[sp], "sites": ids})
+            elif vd.value is not None and f"vd_{sp}" in vd.value:
+                out[sp] = self._run("vd_fill", opts, {"vd": content(f"vd_{sp}")},
+                                    {"name": sp, "fixed": None, "sites": ids})
+        if (getattr(dry_options, "nh3_treatment", "") == "bidirectional" and vd.value is not None
+                and "vd_NH3_bidirectional" in vd.value and "NH3" in out
                 and "NH3" not in fixed_velocity):                   # the net NH3 flux
-            out.update(self._cached(
-                "dry", f"vel|NH3 exchange|{self._vd_digest(vd, 'NH3_bidirectional')}|"
-                f"{self._nh3_emission_digest(vd)}|{budget_options.min_slot_hours}",
-                lambda: nh3_exchange_velocities(vd, budget_options.min_slot_hours)))
+            for name, var in _stages.NH3_EXCHANGE.items():
+                if var in vd.value:
+                    out[name] = self._run("vd_fill", opts, {"vd": content(var)},
+                                          {"name": name, "fixed": None, "sites": ids})
         return out
 
-    def _nh3_emission_digest(self, vd: xr.Dataset) -> str:
-        """Content digest of the NH3 emission term (it changes with Gamma_s alone)."""
-        return digest([("", vd.variables["nh3_emission_flux"])]) if "nh3_emission_flux" in vd \
-            else ""
+    def _dry_rows_node(self, dry_options, budget_options, fixed_velocity=None, overrides=None,
+                       receptors=None, vd=None) -> Node:
+        if self.inputs.air is None or self.inputs.met is None:
+            return _NONE
+        fixed_velocity = dict(fixed_velocity or {})
+        vel = self._velocity_nodes(dry_options, budget_options, fixed_velocity, overrides,
+                                   receptors, vd)
+        if not vel:
+            return _NONE
+        ids = list(self.catalogue(overrides).ids)
+        air, met = self._input("air", self.inputs.air), self._input("met", self.inputs.met)
 
-    def _vd_digest(self, vd: xr.Dataset, sp: str) -> str:
-        """Content digest of a species' Vd in a velocities Dataset (once per Dataset)."""
-        memo = self._memo.setdefault("digest", {})
-        key = (id(vd), sp)
-        if key not in memo:
-            axes = memo.get((id(vd), None))
-            if axes is None:                             # the axes once per Dataset
-                coords = vd[f"vd_{sp}"].coords.variables.items()
-                axes = memo[(id(vd), None)] = (digest(coords), vd)
-            # the Dataset held: its id stays unique
-            memo[key] = (digest([("", vd.variables[f"vd_{sp}"])], axes[0]), vd)
-            trim(memo, 16 * len(COMPONENTS))
-        return memo[key][0]
+        def rows(o, air_v, met_v, sites, **_):
+            # its pieces are stages of their own, run on the same nodes
+            return dry_rows(air, vel, met, list(sites), o.budget, self.graph, self.counts)
+        return self._run("dry_rows", {"budget": budget_options},
+                         {"air_v": air, "met_v": met, **{f"vel|{k}": v for k, v in vel.items()}},
+                         {"sites": tuple(ids)}, fn=rows)
 
     def dry_rows(self, dry_options, budget_options, fixed_velocity=None, overrides=None,
                  receptors=None):
         """Deposition over each air-sampling period (independent of reporting periods)."""
-        if self.inputs.air is None or self.inputs.met is None:
-            return None
-        fixed_velocity = dict(fixed_velocity or {})
-        vel = self._velocity_sets(dry_options, budget_options, fixed_velocity, overrides,
-                                  receptors)
-        if not vel:
-            return None
-        flux = budget_options.flux_key()
-        over = _key(overrides) + _rkey(receptors)
-        memo = recent(self._memo.setdefault("option memos", {}), repr(dry_options) + over + flux,
-                      OPTION_MEMOS)
-        shared = self._memo.setdefault("shared", {})
-        key = repr(dry_options) + over + _key(fixed_velocity) + flux
+        return self._dry_rows_node(dry_options, budget_options, fixed_velocity, overrides,
+                                   receptors).value
 
-        def make():
-            out = dry_rows(self.inputs.air, vel, self.inputs.met, self.catalogue(overrides).ids,
-                           budget_options, memo, shared)
-            trim(shared, SHARED_ENTRIES)
-            return out
-        return self._cached("dry", "rows|" + key, make)
+    def _dry_node(self, rows: Node, periods: Node) -> Node:
+        """Dry components over `periods` from the rows (their shares are stages)."""
+        if rows.value is None:
+            return _NONE
+        r = rows.value
+        times = Node(r["keys"]["times"], r["times"])
+
+        def share(name, piece):
+            return self._run("period_shares", deps={"rows": Node(r["keys"][name], piece),
+                                                    "periods": periods, "times": times},
+                             params={"n_sites": len(r["sites"])}).value
+        return self._run("dry_components", deps={"rows": rows, "periods": periods},
+                         fn=lambda o, rows, periods: dry_components(rows, periods, share))
 
     def dry(self, dry_options, budget_options, periods, fixed_velocity=None, overrides=None,
             receptors=None):
-        rows = self.dry_rows(dry_options, budget_options, fixed_velocity, overrides, receptors)
-        if rows is None:
+        """(dry components over `periods`, notes) or (None, [])."""
+        rows = self._dry_rows_node(dry_options, budget_options, fixed_velocity, overrides,
+                                   receptors)
+        node = self._dry_node(rows, self._as_periods_node(periods))
+        if node.value is None:
             return None, []
-        key = (repr(dry_options) + _key(overrides) + _rkey(receptors) + _key(fixed_velocity)
-               + budget_options.flux_key() + ",".join(periods["label"]))
-        return self._cached("dry", key, lambda: (
-            dry_components(rows, periods, self._memo.setdefault("shares", {})), rows["notes"]))
+        return node.value, rows.value["notes"]
+
+    def _season_node(self, rows: Node, years: Node, hydro) -> Node:
+        y = years.value
+        months = self._periods_node("month", y["start"].values[0], y["end"].values[-1], hydro)
+        dry_m = self._dry_node(rows, months)
+        if dry_m.value is None:
+            return _NONE
+        return self._run("season_coverage", deps={"dry_months": dry_m, "months": months,
+                                                  "years": years})
 
     def season_coverage(self, dry_options, budget_options, years, fixed_velocity=None,
                         overrides=None, receptors=None):
         """(site, year, species): every season has concentrations in that year."""
-        months = self.periods("month", years["start"].values[0], years["end"].values[-1])
-        dry_m, _ = self.dry(dry_options, budget_options, months, fixed_velocity, overrides,
-                            receptors)
-        if dry_m is None:
-            return None
-        cov = dry_m["coverage"].values > 0                      # (site, month, species)
-        yr = months["year"].to_numpy()
-        season = months["season"].to_numpy()
-        out = np.ones((cov.shape[0], len(years), cov.shape[2]), bool)
-        for i, y in enumerate(years["year"].to_numpy()):
-            for s in _periods.SEASON_NAMES:
-                sel = (yr == y) & (season == s)
-                if sel.any():
-                    out[:, i, :] &= cov[:, sel, :].any(axis=1)
-        return out
+        rows = self._dry_rows_node(dry_options, budget_options, fixed_velocity, overrides,
+                                   receptors)
+        return self._season_node(rows, self._as_periods_node(years), 10).value
 
     # ---------------------------------------------------------------- the budget
     def run(self, wet_options=None, dry_options=None, budget_options=None, fixed_velocity=None,
@@ -390,7 +389,6 @@ class Study:
         dry_options = dry_options or DryOptions()
         budget_options = budget_options or BudgetOptions()
         fixed_velocity = dict(fixed_velocity or {})
-        cat = self.catalogue(overrides)
         every = self.receptors(overrides)
         if receptors is not None:
             receptors = tuple(str(r) for r in receptors)
@@ -398,30 +396,38 @@ class Study:
             if unknown:
                 raise ValueError(f"receptors {unknown} are not surfaces of these sites {every}")
         hy = wet_options.hydro_start_month
-        periods = self.periods(resolution, start, end, hy)
-        years = self.periods("year", start, end, hy)
+        periods = self._periods_node(resolution, start, end, hy)
+        years = self._periods_node("year", start, end, hy)
+        cat = self._catalogue_node(overrides)
+        shown = tuple(receptors) if receptors is not None else tuple(every)
+        opts = {"wet": wet_options, "dry": dry_options, "budget": budget_options}
+
+        vel = (self._velocities_node(dry_options, overrides, receptors)
+               if self._needs_model(fixed_velocity) else _NONE)
+        rows = self._dry_rows_node(dry_options, budget_options, fixed_velocity, overrides,
+                                   receptors, vel)
 
         def one(table, season_cov):
-            wet = self.wet(wet_options, table)
-            dry, notes = self.dry(dry_options, budget_options, table, fixed_velocity, overrides,
-                                  receptors)
-            ds = assemble(wet, dry, cat, table, budget_options,
-                          list(receptors) if receptors is not None else every, season_cov)
-            return ds, wet, notes
+            wet = self._wet_node(wet_options, table)
+            dry = self._dry_node(rows, table)
+            ds = self._run("budget", opts, {"wet": wet, "dry": dry, "catalogue": cat,
+                                            "periods": table, "season_cov": season_cov},
+                           {"receptors": shown})
+            return ds, wet
 
-        season_cov = self.season_coverage(dry_options, budget_options, years, fixed_velocity,
-                                          overrides, receptors)
-        year_ds, wet_y, notes = one(years, season_cov)
+        season_cov = self._season_node(rows, years, hy)
+        year_ds, wet_y = one(years, season_cov)
         if resolution == "year":
             res_ds, wet_r = year_ds, wet_y
         else:
-            res_ds, wet_r, _ = one(periods, None)
-        self.counts["budget"] += 1
-        return Result(budget=res_ds, years=year_ds,
-                      screened=self.screened(wet_options), wet=wet_r,
-                      velocities=self.velocities(dry_options, overrides, receptors)
-                      if self._needs_model(fixed_velocity) else None, periods=periods,
+            res_ds, wet_r = one(periods, _NONE)
+        screened = self._screened_node(wet_options)
+        return Result(budget=res_ds.value, years=year_ds.value, screened=screened.value,
+                      wet=wet_r.value, velocities=vel.value, periods=periods.value,
                       options={"wet": wet_options, "dry": dry_options, "budget": budget_options,
                                "fixed_velocity": fixed_velocity, "resolution": resolution,
                                "receptors": receptors},
-                      notes=notes)
+                      notes=[] if rows.value is None else rows.value["notes"],
+                      keys={"budget": res_ds.key, "years": year_ds.key, "screened": screened.key,
+                            "wet": wet_r.key, "velocities": vel.key},
+                      graph=self.graph)

@@ -6,8 +6,9 @@ import numpy as np
 import pytest
 
 from drydep.dry_synthetic import SITES as _SITES, make_met, make_surfaces
-from workbench.drydep import DryOptions, core, velocities
+from workbench.drydep import DryOptions, velocities
 from workbench.drydep import particles as _particles
+from workbench.graph import Graph
 
 
 @pytest.fixture(scope="module")
@@ -44,18 +45,17 @@ def _variants():
 
 def test_cached_steps_give_the_fresh_numbers_in_any_order(inputs):
     met, surf = inputs
-    cache = {}
+    cache = Graph(max_entries=12)
     variants = _variants()
     for opt in variants + variants[::-1] + variants:
         _assert_same(velocities(met, surf, opt, cache=cache), velocities(met, surf, opt))
-    # bounded: at most the set number of results per step
-    for stage, entries in cache.items():
-        assert len(entries) <= core.CACHE_ENTRIES[stage]
+        # bounded: at most the set number of results in the graph's one cache
+        assert len(cache) <= 12
 
 
 def test_a_particle_option_computes_only_its_mode_again(inputs, monkeypatch):
     met, surf = inputs
-    cache = {}
+    cache = Graph()
     base = DryOptions()
     velocities(met, surf, base, cache=cache)
     seen = []
@@ -87,7 +87,7 @@ def test_a_particle_option_computes_only_its_mode_again(inputs, monkeypatch):
 
 def test_cached_results_are_read_only(inputs):
     met, surf = inputs
-    ds = velocities(met, surf, DryOptions(), cache={})
+    ds = velocities(met, surf, DryOptions(), cache=Graph())
     with pytest.raises(ValueError):
         ds["ra"].values[0, 0, 0] = 1.0           # shared with the cache: nobody can change it
     fresh = velocities(met, surf, DryOptions())
@@ -99,7 +99,7 @@ def test_some_receptors_only_give_the_same_numbers(inputs):
     mast's surface still comes from every receptor)."""
     met, surf = inputs
     whole = velocities(met, surf, DryOptions())
-    cache = {}
+    cache = Graph()
     for rec in [str(r) for r in surf["receptor"].values][:3]:
         one = velocities(met, surf, DryOptions(), cache=cache, receptors=[rec])
         assert list(one["receptor"].values) == [rec]
@@ -142,15 +142,13 @@ def test_random_sequences_of_dry_controls_never_lose_a_cached_mode(tiny_inputs, 
     from hypothesis import HealthCheck, given, settings, strategies as st
 
     met, surf = tiny_inputs
-    if limit is not None:
-        monkeypatch.setitem(core.CACHE_ENTRIES, "particles", limit)
     fresh = {}
 
     @settings(max_examples=4, deadline=None, derandomize=True,
               suppress_health_check=[HealthCheck.function_scoped_fixture])
     @given(st.data())
     def run(data):
-        cache = {}
+        cache = Graph(max_entries=limit or 2048)
         for _ in range(data.draw(st.integers(20, 120))):
             opt = _random_options(lambda xs: data.draw(st.sampled_from(xs)),
                                   lambda xs: data.draw(st.sampled_from(xs)))
@@ -159,6 +157,5 @@ def test_random_sequences_of_dry_controls_never_lose_a_cached_mode(tiny_inputs, 
             if key not in fresh:
                 fresh[key] = velocities(met, surf, opt)
             _assert_same(got, fresh[key])
-            for stage, entries in cache.items():
-                assert len(entries) <= core.CACHE_ENTRIES[stage]
+            assert len(cache) <= (limit or 2048)
     run()

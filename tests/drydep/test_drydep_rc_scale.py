@@ -45,7 +45,8 @@ def test_rc_of_the_gas_named_is_scaled_and_vd_follows(inputs, scheme):
 
 def test_cache_gives_fresh_numbers_after_a_change(inputs):
     met, surf = inputs
-    cache = {}
+    from workbench.graph import Graph
+    cache = Graph()
     variants = [DryOptions(), DryOptions(rc_scale={"NH3": 0.5}), DryOptions(rc_scale={"NH3": 2.0}),
                 DryOptions(rc_scale={"NH3": 2.0, "O3": 3.0})]
     seen = []

@@ -45,15 +45,10 @@ def test_tight_cache_limits_give_the_same_numbers(session, monkeypatch):
     import dataclasses
 
     from workbench import pipeline
-    from workbench.drydep import core
-    monkeypatch.setattr(pipeline, "STAGE_LIMITS",
-                        {"velocities": 1, "dry": 3, "wet": 1, "screened": 1})
-    monkeypatch.setattr(pipeline, "SHARED_ENTRIES", 5)
-    monkeypatch.setattr(pipeline, "OPTION_MEMOS", 1)
-    monkeypatch.setattr(pipeline, "VELOCITY_STEP_SETS", 1)
-    monkeypatch.setattr(core, "CACHE_ENTRIES", {k: 1 for k in core.CACHE_ENTRIES})
+    from workbench.graph import Graph
     base = session.study_for("ridge", 2021, 2021)
-    st = pipeline.Study(base.inputs, base.site_overrides)
+    graph = Graph(max_entries=6)                       # the one cache, tiny
+    st = pipeline.Study(base.inputs, base.site_overrides, graph=graph)
     args = session.baseline.run_args()
     start, end = session.bounds(2021, 2021)
     dry = args["dry_options"]
@@ -67,5 +62,5 @@ def test_tight_cache_limits_give_the_same_numbers(session, monkeypatch):
         fresh = pipeline.Study(base.inputs, base.site_overrides).run(
             resolution="year", start=start, end=end, receptors=["grass"], **a)
         _assert_same(got.years, fresh.years)
-    assert sum(1 for k in st._cache if k[0] == "dry") <= 3
-    assert len(st._memo["shared"]) <= 5               # trimmed after each rows computation
+    assert len(graph) <= 6
+    assert graph.counts["velocities"] > 2              # dropped and computed again

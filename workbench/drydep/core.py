@@ -30,7 +30,7 @@ from .. import landuse
 from ..optional import require
 from ..constants import CP_DRY_AIR, HALF_HOUR, VON_KARMAN
 from ..landuse import LAND_USE
-from ..memo import recent
+from .. import graph as _graph
 from ..surface import energy_balance as eb
 from ..surface.aerodynamic import (aerodynamic_resistance, apply_cap, apply_floor,
                                    coriolis_parameter, reference_height, transfer_ustar,
@@ -106,18 +106,27 @@ def _receptor_roughness(surf, receptors, opt):
     return np.asarray(z0, float), np.asarray(d, float)
 
 
-#: Entries kept per step in a velocities cache (a few MB each for a site-year; a
-#: particle entry is one mode's Vd, so that step keeps more).
-CACHE_ENTRIES = {"micromet": 4, "state": 8, "gases": 8, "particles": 32}
-#: Options of steps 1-4 (air, sun, surface layer, receptors' u*, L and Ra).
+#: The steps of :func:`velocities` as stages of the graph (:mod:`workbench.graph`), with
+#: the options each reads: a step is computed again only when one of them, or a step
+#: it is run on, changes.  Steps 1-4 (air, sun, surface layer, receptors' u*, L, Ra):
 _MICROMET_OPTIONS = ("roughness", "ustar_floor", "ra_cap", "ra_min_height_z0",
                      "blending_height", "ustar_transfer", "night_cloud_cover", "unstable_iterations",
                      "charnock_iterations")
-#: Options of step 5 (season and wetness), besides those of steps 1-4.
-_STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule")
-#: Options of the gases, besides those of steps 1-5.
-_GAS_OPTIONS = ("gas_scheme", "gases", "components", "nh3_treatment", "hno3_rc_floor",
+#: Step 5 (season and wetness; the dew rule as the gas scheme resolves it).
+_STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule", "dew_rule", "gas_scheme")
+#: The gases (Rb, Rc and its paths, Vd; the bidirectional NH3 model).
+_GAS_OPTIONS = ("gas_scheme", "gases", "nh3_treatment", "hno3_rc_floor",
                 "nh3_emission_potential", "nh3_acid_ratio", "rc_scale")
+#: One particle mode (the mode itself is a parameter).
+_PARTICLE_OPTIONS = ("size_nodes",)
+_graph.declare("micromet", {"dry": _MICROMET_OPTIONS}, freeze=True,
+               doc="steps 1-4: air, sun, surface layer, u*, L and Ra over each receptor")
+_graph.declare("canopy_state", {"dry": _STATE_OPTIONS}, freeze=True,
+               doc="step 5: seasonal category and surface wetness")
+_graph.declare("gas_vd", {"dry": _GAS_OPTIONS}, freeze=True,
+               doc="step 6: Rb, Rc (and paths) and Vd of each gas")
+_graph.declare("particle_mode_vd", {"dry": _PARTICLE_OPTIONS}, freeze=True,
+               doc="step 6: mass-weighted Vd of one log-normal particle mode")
 
 #: What steps 1-4 hand on (the cached result of the surface layer), and step 5.
 _MICROMET_OUT = ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "cloud",
@@ -127,29 +136,30 @@ _MICROMET_OUT = ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "
 _STATE_OUT = ("cat", "cat_src", "wet", "kind", "wet_src")
 
 
-def _options_key(opt: DryOptions, names) -> str:
-    return repr(tuple((n, getattr(opt, n)) for n in names))
+def _stage(cache, stage: str, compute, opt, after=(), **params):
+    """``compute(opt)`` of a step, or its cached result (`cache` None: no caching).
 
-
-def _stage(cache, stage: str, key, compute):
-    """``compute()`` or its cached result (`cache` None: no caching).
-
-    Results are dicts of numpy arrays, frozen (read-only) when cached, so that they can
-    be handed to several output Datasets without copies and never change.
+    `cache` is a :class:`workbench.graph.Steps`: the step's key is derived from the
+    options it declares, `params` and the steps named in `after`; `compute` gets a
+    guarded view of the options (an undeclared read raises).  Cached results are dicts
+    of frozen (read-only) numpy arrays, handed to several output Datasets without copies.
     """
     if cache is None:
-        return compute()
-    entries = cache.setdefault(stage, {})
-    if key not in entries:
-        entries[key] = compute()
-        for v in entries[key].values():
-            if isinstance(v, np.ndarray):
-                v.flags.writeable = False
-    return recent(entries, key, CACHE_ENTRIES[stage])      # the most recently used last
+        return compute(opt)
+    return cache.run(stage, compute, opt, after, **params)
+
+
+def _mode_lookup(cache, opt, mode):
+    """(key, cached {"vd": array} or MISSING, guarded view) of one particle mode's step
+    (run on the surface layer and the canopy state)."""
+    if cache is None:
+        return None, _graph.MISSING, _graph.OptionView(
+            opt, _graph.STAGES["particle_mode_vd"].reads["dry"], "particle_mode_vd", "dry")
+    return cache.lookup("particle_mode_vd", opt, ("micromet", "canopy_state"), mode=mode)
 
 
 def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: list,
-            cache: dict | None = None, met_surf: xr.Dataset | None = None) -> xr.Dataset:
+            cache=None, met_surf: xr.Dataset | None = None) -> xr.Dataset:
     """All hourly quantities for one in-memory block of the met Dataset.
 
     Parameters
@@ -162,9 +172,9 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         Receptor surfaces (site, receptor).
     opt : DryOptions
     receptors : list of str
-    cache : dict, optional
-        Results of the steps kept between calls on the same block and surfaces, keyed
-        by the options each step depends on (see :func:`velocities`).
+    cache : workbench.graph.Steps, optional
+        The steps of this calculation in a stage graph: each step's result is kept
+        there, keyed by the options it declares (see :func:`velocities`).
     met_surf : xarray.Dataset, optional
         Every receptor surface of the sites (default `surf`), for the surface around
         the wind mast when `surf` holds only some receptors.
@@ -193,7 +203,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     def rec(values):  # (1, receptor, 1)
         return np.asarray(values)[None, :, None]
 
-    def micromet():
+    def micromet(opt):
         # --- 1. inputs, pressure, air ------------------------------------------------------
         temp, u, rh = st("temperature"), st("wind_speed"), st("relative_humidity")
         k_down, precip = st("solar_radiation"), st("precipitation")
@@ -301,13 +311,14 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         here = locals()
         return {k: here[k] for k in _MICROMET_OUT}
 
-    rkey = repr(tuple(receptors))            # a cache may serve several receptor sets
-    m = _stage(cache, "micromet", rkey + _options_key(opt, _MICROMET_OPTIONS), micromet)
+    rset = tuple(receptors)                  # a cache may serve several receptor sets
+    m = _stage(cache, "micromet", micromet, opt, receptors=rset)
     (temp, u, rh, k_down, precip, pres, rho, snow, cloud, cloud_src, pressure_estimated, us_m,
      h_m, method, ok, theta_limited, night, us_r, floor_used, h_r, inv_l, z_ref, raised, ra,
      cap_used, valid, z0_r) = (m[k] for k in _MICROMET_OUT)
 
-    def season_wetness():
+    def season_wetness(opt):
+        dew_rule = _wetness.resolve_dew_rule(opt.dew_rule, _gas.get_scheme(opt.gas_scheme))
         # --- 5. season and wetness -------------------------------------------------------------
         times = block["time"].values
         month = _seasons.calendar_month(times)[None, None, :]
@@ -347,9 +358,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         here = locals()
         return {k: here[k] for k in _STATE_OUT}
 
-    dew_rule = _wetness.resolve_dew_rule(opt.dew_rule, scheme)
-    k_state = rkey + _options_key(opt, _MICROMET_OPTIONS + _STATE_OPTIONS) + dew_rule
-    sw = _stage(cache, "state", k_state, season_wetness)
+    sw = _stage(cache, "canopy_state", season_wetness, opt, ("micromet",), receptors=rset)
     (cat, cat_src, wet, kind, wet_src) = (sw[k] for k in _STATE_OUT)
 
     # --- 6. gases and particles ---------------------------------------------------------------
@@ -385,7 +394,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
 
     out = {}
     land = rec(np.array(receptors, dtype=object))
-    def gas_parts():
+    def gas_parts(opt):
+        scheme = _gas.get_scheme(opt.gas_scheme)
         state = _gas.CanopyState(
             land, cat, k_down, temp, kind, site("terrain_slope"), us_r,
             lai=_canopy.hourly_lai(surf, receptors, block["time"].values),
@@ -409,7 +419,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         return flat
 
 
-    gp = _stage(cache, "gases", k_state + _options_key(opt, _GAS_OPTIONS), gas_parts)
+    gp = _stage(cache, "gas_vd", gas_parts, opt, ("micromet", "canopy_state"), receptors=rset)
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         for g in opt.gases:
             rb = gp[f"rb|{g}"]
@@ -444,17 +454,19 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         # mass weight of each mode per site (docs/methods_dry.md, particle size split)
         parts = {sp: _fractions.mode_weights(surf, sp, opt) for sp in opt.particles}
         modes = list(dict.fromkeys(mode for pp in parts.values() for mode, _ in pp[0]))
-        mode_key = {mode: k_state + repr((mode, opt.size_nodes)) for mode in modes}
-        known = cache.get("particles", {}) if cache is not None else {}
         # read the cached modes before storing new ones: storing may evict them
-        held = {mode: known[mode_key[mode]] for mode in modes if mode_key[mode] in known}
+        found = {mode: _mode_lookup(cache, opt, mode) for mode in modes}
+        held = {mode: f[1]["vd"] for mode, f in found.items() if f[1] is not _graph.MISSING}
         todo = [mode for mode in modes if mode not in held]
-        new = dict(zip(todo, _particles.mass_weighted_velocities(
-            todo, rh, us_r, ra, temp, pres, land, cat, wet, opt.size_nodes))) if todo else {}
-        new = {mode: {"vd": vd} for mode, vd in new.items()}
-        by_mode = {mode: _stage(cache, "particles", mode_key[mode],
-                                lambda mode=mode: held.get(mode) or new[mode])["vd"]
-                   for mode in modes}
+        if todo:
+            view = found[todo[0]][2]          # the step's guarded view of the options
+            new = dict(zip(todo, _particles.mass_weighted_velocities(
+                todo, rh, us_r, ra, temp, pres, land, cat, wet, view.size_nodes)))
+            for mode in todo:
+                if cache is not None:
+                    cache.store("particle_mode_vd", found[mode][0], {"vd": new[mode]})
+                held[mode] = new[mode]
+        by_mode = held
         for sp in opt.particles:
             weights, coarse, source = parts[sp]
             total = 0.0
@@ -518,7 +530,7 @@ def _template(aug, surf, opt, receptors, met_surf=None):
 
 
 def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None = None,
-               cache: dict | None = None, receptors=None) -> xr.Dataset:
+               cache=None, receptors=None) -> xr.Dataset:
     """Dry deposition velocities and every resistance, per site, receptor and hour.
 
     Parameters
@@ -533,13 +545,15 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         Receptor surfaces, dims (site, receptor), as produced by
         ``SiteCatalogue.surfaces()``.
     options : DryOptions, optional
-    cache : dict, optional
-        Kept by the caller between calls on the *same* `met` and `surfaces` (an app
-        trying one option after another): the surface layer, the season and wetness,
-        the gases and each particle mode are then computed again only when an option
-        they depend on changes (at most :data:`CACHE_ENTRIES` results per step).  The
-        arrays of the result are then read-only, shared with the cache.  Not used for
-        dask-backed `met`.
+    cache : workbench.graph.Graph or workbench.graph.Steps, optional
+        A stage graph kept by the caller between calls (an app trying one option
+        after another): the surface layer, the season and wetness, the gases and each
+        particle mode are stages of it (``micromet``, ``canopy_state``, ``gas_vd``,
+        ``particle_mode_vd``), computed again only when an option they declare or a
+        step they are run on changes.  A Graph keys the inputs by a digest of `met`
+        and `surfaces`; a Steps object (from :meth:`Graph.steps`) names them itself.
+        The arrays of the result are then read-only, shared with the cache.  Not used
+        for dask-backed `met`.
     receptors : sequence of str, optional
         Compute these receptors only (default: every receptor of `surfaces`); each
         receptor's numbers are the same as in the whole calculation (the surface
@@ -598,6 +612,9 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
                                                      "met_surf": met_surf},
                                template=_template(aug, surf, opt, receptors, met_surf))
     else:
+        if isinstance(cache, _graph.Graph):
+            cache = cache.steps(_graph.variables_digest(
+                [*aug.variables.items(), *met_surf.variables.items()]))
         hourly = _hourly(aug, surf, opt, receptors, cache, met_surf)
     _, d_r = _receptor_roughness(surf, receptors, opt)
     # Variables, added in one step (numpy sums in memory, dask sums when lazy)

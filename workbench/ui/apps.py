@@ -249,17 +249,20 @@ class SiteExplorer(widgets.VBox):
         raise KeyError(name)
 
     def _tab_key(self, name):
+        """What a tab shows, by the graph keys of the results it draws (equal keys,
+        equal figures)."""
         r, rec = self.result, self.receptor_w.value
         if name == "monthly fluxes":
-            return (id(r.years), rec, self.unit_w.value)
+            return (r.keys.get("budget"), r.keys.get("years"), rec, self.unit_w.value)
         if name == "deposition velocity":
-            return (id(r.velocities), rec)
+            return (r.keys.get("velocities"), rec)
         if name == "resistances":
-            return (id(r.velocities), rec, self.gas_w.value)
+            return (r.keys.get("velocities"), rec, self.gas_w.value)
         if name in ("ion balance", "capture efficiency"):
-            return (id(r.screened), self.settings.wet.ion_balance_tiers, self.settings.wet.capture_rain)
+            return (r.keys.get("screened"), self.settings.wet.ion_balance_tiers,
+                    self.settings.wet.capture_rain)
         if name == "excluded samples":
-            return (id(r.screened), self.years)
+            return (r.keys.get("screened"), self.years)
         return None
 
     def _draw_tab(self, name, force=False):

@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import copy
 import dataclasses
-import json
 from dataclasses import dataclass, field
 from typing import Callable
 
@@ -71,9 +70,8 @@ class Settings:
 
     def key(self) -> str:
         """A text that differs whenever a run would differ (cache key)."""
-        fixed = sorted((k, float(v)) for k, v in self.fixed_velocity.items())
-        over = json.dumps(self.overrides, sort_keys=True, default=str)
-        return "|".join((self.wet.to_json(), repr(self.dry), repr(self.budget), repr(fixed), over))
+        from ..graph import content_digest, token      # derived from every field
+        return content_digest([], repr(token(self)))
 
     def run_args(self) -> dict:
         """Keyword arguments of :meth:`workbench.pipeline.Study.run`."""

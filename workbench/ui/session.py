@@ -20,6 +20,7 @@ import pandas as pd
 
 from ..budget import BudgetOptions
 from ..drydep import DryOptions
+from ..graph import Graph, content_digest, token
 from ..pipeline import Study
 from ..scenario import load_scenario, validate
 from ..wet import WetOptions
@@ -74,6 +75,8 @@ class Session:
         self.baseline = Settings.from_scenario(scenario)
         self._studies: OrderedDict = OrderedDict()
         self._results: OrderedDict = OrderedDict()
+        #: the one stage graph (and bounded cache) of every study of the session
+        self.graph = Graph()
 
     # ------------------------------------------------------------------ opening
     @classmethod
@@ -147,7 +150,7 @@ class Session:
         margin = np.timedelta64(SUBSET_MARGIN_DAYS, "D")
         st = Study(self.study.inputs.subset([site], np.datetime64(start) - margin,
                                             np.datetime64(end) + margin),
-                   self.study.site_overrides)
+                   self.study.site_overrides, graph=self.graph)
         self._studies[key] = st
         while len(self._studies) > MAX_STUDIES:
             self._studies.popitem(last=False)
@@ -164,7 +167,8 @@ class Session:
         The last :data:`MAX_RESULTS` results are kept: going back to settings seen
         before returns the same ``Result`` object without running the study.
         """
-        key = (site, int(first_year), int(last_year), resolution, receptor, settings.key())
+        key = content_digest([], repr(token(
+            (site, int(first_year), int(last_year), resolution, receptor, settings))))
         if key in self._results:
             self._results.move_to_end(key)
             return self._results[key]

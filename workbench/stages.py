@@ -1,0 +1,161 @@
+"""The stages of a budget in the stage graph (:mod:`workbench.graph`).
+
+Each function here is a named, pure stage: it gets its options as guarded views
+(``o.wet``, ``o.dry``, ``o.budget``: only the declared fields can be read), its
+upstream results and inputs by name, and plain parameters.
+:class:`workbench.pipeline.Study` runs them; the velocity steps are declared in
+:mod:`workbench.drydep.core` and the pieces of the dry rows in
+:mod:`workbench.drycomponents`.
+"""
+from __future__ import annotations
+
+import dataclasses
+
+import numpy as np
+import xarray as xr
+
+from . import periods as _periods
+from .budget import BudgetOptions, assemble, derived
+from .drycomponents import NH3_EXCHANGE, fill_arrays, prepare_velocities
+from .dryflux import fill_diurnal
+from .graph import declare, stage, variables_digest
+from .wet.options import WetOptions
+
+#: Wet options that act on periods only (completeness, fills, sea salt): the wet
+#: chain's own reads.  The screening reads every other wet option.
+WET_PERIOD_OPTIONS = ("hydro_start_month", "straddle", "min_gauge_fraction",
+                      "min_coverage_fraction", "min_valid_precip_fraction", "min_valid_samples",
+                      "period_fill", "seasalt_tracer")
+WET_QA_OPTIONS = tuple(f.name for f in dataclasses.fields(WetOptions)
+                       if f.name not in WET_PERIOD_OPTIONS)
+#: Dry options read by the velocities (every step's reads and the assembly's);
+#: ``compare_schemes`` is read by ``workbench run`` only (it runs the graph twice).
+VELOCITY_OPTIONS = ("gas_scheme", "gases", "particles", "wetness_rule", "dew_rule",
+                    "season_rule", "seasonal_category", "ustar_floor", "ra_cap",
+                    "ra_min_height_z0", "blending_height", "ustar_transfer",
+                    "night_cloud_cover", "roughness", "particle_modes", "coastal_distance",
+                    "size_nodes", "unstable_iterations", "charnock_iterations",
+                    "nh3_treatment", "nh3_emission_potential", "nh3_acid_ratio",
+                    "hno3_rc_floor", "rc_scale", "components")
+#: Budget options of the assembly: completeness, status, bulk collectors and basis, and
+#: every other one for its provenance attribute (it runs on the dry rows that read them).
+BUDGET_OPTIONS = tuple(f.name for f in dataclasses.fields(BudgetOptions))
+
+
+@stage("periods", reads={"wet": ("hydro_start_month",)})
+def periods(o, span, resolution, start, end):
+    """The reporting periods (calendar or hydrological years, seasons, months)."""
+    s0, e0 = span
+    t0 = np.datetime64(start) if start else s0
+    t1 = np.datetime64(end) if end else e0
+    return _periods.make_periods(t0, t1, resolution, hydro_start_month=o.wet.hydro_start_month)
+
+
+@stage("screen", reads={"wet": WET_QA_OPTIONS}, counts_as="screened")
+def screen(o, precipitation, met):
+    """Per-sample QA of the precipitation chemistry."""
+    from .wet import screen as _screen
+    return _screen(precipitation, o.wet, met=met)
+
+
+@stage("wet", reads={"wet": tuple(f.name for f in dataclasses.fields(WetOptions))},
+       counts_as="wet")
+def wet(o, screened, periods, met):
+    """Wet deposition over the periods (PWMs, completeness, fills, sea salt).
+
+    It reads the period options; it declares every wet option because it writes them
+    all to its provenance attribute (and it runs on the screening, which reads the rest).
+    """
+    from .wet import wet_deposition
+    return wet_deposition(screened, periods, o.wet, met=met)
+
+
+@stage("surfaces")
+def surfaces(o, catalogue):
+    """The receptor surfaces of the catalogue (with the site overrides)."""
+    return catalogue.surfaces()
+
+
+@stage("velocities", reads={"dry": VELOCITY_OPTIONS}, counts_as="velocities")
+def velocities(o, met, surfaces, catalogue, steps, receptors):
+    """Hourly Ra, Rb, Rc and Vd (its steps are stages of their own)."""
+    from .drydep import velocities as _velocities
+    dry = o.dry
+    if dry.nh3_treatment == "bidirectional":          # the catalogue's site potentials
+        site_g = catalogue.nh3_emission_potential()
+        if site_g:
+            dry = dry.with_values(nh3_emission_potential={**site_g,
+                                                          **dry.nh3_emission_potential})
+    return _velocities(met, surfaces, dry, cache=steps,
+                       receptors=None if receptors is None else list(receptors))
+
+
+@stage("vd_content")
+def vd_content(o, velocities, variable):
+    """Digest of one variable of the velocities (and the scheme named with it), so that
+    an option that leaves a species' Vd as it was reuses everything built on it."""
+    return variables_digest([(variable, velocities.variables[variable])],
+                            velocities.attrs.get("gas_scheme", "model"))
+
+
+@stage("vd_fill", reads={"budget": ("min_slot_hours",)}, counts_as="dry")
+def vd_fill(o, vd, name, fixed, sites):
+    """Gap-filled hourly Vd of a species (its mean diurnal cycle), or a fixed Vd.
+
+    `vd` is ``(DataArray, scheme)`` of the model or, for a fixed Vd, the
+    ``(ids, receptors, times)`` axes.
+    """
+    min_slot = o.budget.min_slot_hours
+    if fixed is not None:
+        ids, receptors, times = vd
+        template = xr.DataArray(np.full((len(ids), len(receptors), len(times)), np.nan),
+                                dims=("site", "receptor", "time"),
+                                coords={"site": list(ids), "receptor": list(receptors),
+                                        "time": times})
+        got = prepare_velocities(None, [name], {name: fixed}, min_slot, template)[name]
+    elif name in NH3_EXCHANGE:
+        filled, was = fill_diurnal(vd[0].load(), min_slot)
+        got = (filled, was, "nh3 compensation point")
+    else:
+        ds = xr.Dataset({f"vd_{name}": vd[0]}, attrs={"gas_scheme": vd[1]})
+        got = prepare_velocities(ds, [name], {}, min_slot)[name]
+    return fill_arrays(*got, sites)
+
+
+@stage("season_coverage")
+def season_coverage(o, dry_months, months, years):
+    """(site, year, species): every season has concentrations in that year."""
+    cov = dry_months["coverage"].values > 0                      # (site, month, species)
+    yr = months["year"].to_numpy()
+    season = months["season"].to_numpy()
+    out = np.ones((cov.shape[0], len(years), cov.shape[2]), bool)
+    for i, y in enumerate(years["year"].to_numpy()):
+        for s in _periods.SEASON_NAMES:
+            sel = (yr == y) & (season == s)
+            if sel.any():
+                out[:, i, :] &= cov[:, sel, :].any(axis=1)
+    return out
+
+
+@stage("budget", reads={"budget": BUDGET_OPTIONS}, counts_as="budget")
+def budget(o, wet, dry, catalogue, periods, season_cov, receptors):
+    """Wet + dry components per site, receptor and period, totals and status."""
+    return assemble(wet, dry, catalogue, periods, o.budget, list(receptors), season_cov)
+
+
+@stage("derived")
+def derived_quantities(o, budget):
+    """Shares, oxidized / reduced N, potential acidity, brackets, total nitrate."""
+    return derived(budget)
+
+
+#: Budget options read by the pieces of the dry rows (``air_basis``, ``flux_inputs``
+#: and the fills); the ``dry_rows`` stage hands them on, so it declares them all.
+ROW_OPTIONS = ("sulfate_basis", "pair_split", "air_censored", "min_slot_hours",
+               "diurnal_profile", "preferred_method")
+declare("dry_rows", {"budget": ROW_OPTIONS}, counts_as="dry",
+        doc="deposition over every air-sampling period of every species "
+            "(drycomponents.dry_rows; its pieces are stages)")
+declare("dry_components", counts_as="dry",
+        doc="dry deposition over the reporting periods (drycomponents.dry_components; "
+            "each piece's share is the period_shares stage)")
