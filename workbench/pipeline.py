@@ -230,9 +230,34 @@ class Study:
         # recomputes only the steps that depend on it (a particle size: that mode only)
         steps = recent(self._memo.setdefault("velocity steps", {}), over, VELOCITY_STEP_SETS)
         return self._cached("velocities", repr(dry_options) + "|" + over,
-                            lambda: velocities(self.inputs.met, self.surfaces(overrides),
+                            lambda: velocities(self._met_with_air(dry_options),
+                                               self.surfaces(overrides),
                                                self._site_nh3(dry_options, overrides),
                                                cache=steps, receptors=receptors))
+
+    def _met_with_air(self, dry_options):
+        """The met Dataset with the hourly inputs the dry options take from the air
+        concentrations (site, time): the NH3/SO2 ratio of ``so2_codeposition`` and the
+        sampler coarse fractions of ``sampler_coarse_fraction`` (docs/methods_dry.md)."""
+        met, air = self.inputs.met, self.inputs.air
+        if air is None or not (dry_options.so2_codeposition
+                               or dry_options.sampler_coarse_fraction):
+            return met
+        from .drydep import codeposition, particle_fractions
+        sites, times = [str(x) for x in met["site"].values], met["time"].values
+        extra = {}
+        if dry_options.so2_codeposition:
+            t = met["temperature"].transpose("site", "time").values
+            p = (met["pressure"].transpose("site", "time").values if "pressure" in met
+                 else np.full(t.shape, np.nan))
+            elev = self.surfaces()["elevation"].sel(site=sites).values.astype(float)
+            from .surface.air import standard_pressure_at
+            p = np.where(np.isnan(p), standard_pressure_at(elev)[:, None], p)
+            extra["nh3_so2_ratio"] = codeposition.hourly_ratio(air, times, sites, t, p)
+        for sp, f in particle_fractions.hourly_sampler_fractions(air, times, sites,
+                                                                 dry_options).items():
+            extra[f"coarse_fraction_{sp}"] = f
+        return met.assign({k: (("site", "time"), v, {"units": "1"}) for k, v in extra.items()})
 
     def _site_nh3(self, dry_options, overrides=None):
         """The dry options with the catalogue's per-site NH3 emission potentials

@@ -73,6 +73,13 @@ NH3_BIDIRECTIONAL_NOTE = (
 MET_VARIABLES = ("wind_speed", "temperature", "relative_humidity", "solar_radiation",
                  "precipitation", "pressure", "cloud_cover", "friction_velocity",
                  "sensible_heat_flux", "surface_wet", "snow_cover")
+#: Hourly inputs derived from the air concentrations (site, time), read when present:
+#: the NH3/SO2 molar ratio of the co-deposition option [1]
+#: (:func:`workbench.drydep.codeposition.hourly_ratio`) and the coarse fraction of a
+#: particle species from the sampler of each hour [1]
+#: (:func:`workbench.drydep.particle_fractions.hourly_sampler_fractions`).
+AIR_DERIVED = ("nh3_so2_ratio",) + tuple(f"coarse_fraction_{sp}" for sp in
+                                         ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa"))
 _PREV = "_previous_precipitation"
 _FROST = "_autumn_frost_seen"
 
@@ -117,7 +124,7 @@ _MICROMET_OPTIONS = ("roughness", "ustar_floor", "ra_cap", "ra_min_height_z0",
 _STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule")
 #: Options of the gases, besides those of steps 1-5.
 _GAS_OPTIONS = ("gas_scheme", "gases", "components", "nh3_treatment", "hno3_rc_floor",
-                "nh3_emission_potential", "nh3_acid_ratio", "rc_scale")
+                "nh3_emission_potential", "nh3_acid_ratio", "rc_scale", "so2_codeposition")
 
 #: What steps 1-4 hand on (the cached result of the surface layer), and step 5.
 _MICROMET_OUT = ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "cloud",
@@ -390,7 +397,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             land, cat, k_down, temp, kind, site("terrain_slope"), us_r,
             lai=_canopy.hourly_lai(surf, receptors, block["time"].values),
             relative_humidity=rh, cos_zenith=_canopy.cos_zenith(block["time"].values, site),
-            snow_cover=snow, hno3_rc_floor=opt.hno3_rc_floor)
+            snow_cover=snow, hno3_rc_floor=opt.hno3_rc_floor,
+            nh3_so2_ratio=st("nh3_so2_ratio") if opt.so2_codeposition else None)
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
             comps = _gas.surface_resistances(scheme, opt.gases, state)
             for g, k in opt.rc_scale.items():      # sensitivity knob: k Rc (default 1)
@@ -426,6 +434,10 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                         out[f"rc_{path}"] = srt(comp[path], unit, label)
                     else:
                         out[f"rc_{g}_{path}"] = srt(comp[path], unit, f"{label} of {g}")
+            if "codeposition_used" in comp and opt.so2_codeposition:
+                out["so2_codeposition_used"] = srt(comp["codeposition_used"] & valid, "1",
+                                                   "SO2 non-stomatal resistance from the "
+                                                   "NH3/SO2 ratio (co-deposition)")
             if g == "HNO3":
                 out["rc_floor_used_HNO3"] = srt(comp["floor_used"] & valid, "1",
                                                 "HNO3 surface resistance raised to its floor")
@@ -442,7 +454,9 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                                                 "NH3 stomatal compensation point chi_s")
         # each distinct mode once, all of them in one call (shared surface terms); the
         # mass weight of each mode per site (docs/methods_dry.md, particle size split)
-        parts = {sp: _fractions.mode_weights(surf, sp, opt) for sp in opt.particles}
+        parts = {sp: _fractions.mode_weights(
+            surf, sp, opt, st(f"coarse_fraction_{sp}")[:, 0, :]
+            if f"coarse_fraction_{sp}" in block else None) for sp in opt.particles}
         modes = list(dict.fromkeys(mode for pp in parts.values() for mode, _ in pp[0]))
         mode_key = {mode: k_state + repr((mode, opt.size_nodes)) for mode in modes}
         known = cache.get("particles", {}) if cache is not None else {}
@@ -459,7 +473,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             weights, coarse, source = parts[sp]
             total = 0.0
             for mode, w in weights:
-                total = total + w[:, None, None] * by_mode[mode]
+                total = total + _fractions.broadcast_weight(w) * by_mode[mode]
             out[f"vd_{sp}"] = srt(total, "m s-1", f"mass-weighted dry deposition velocity of {sp} "
                                   "(Zhang et al. 2001)", coarse_fraction=coarse.tolist(),
                                   coarse_fraction_source=", ".join(
@@ -570,7 +584,7 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
                  "precipitation"):
         if name not in met:
             raise ValueError(f"met has no {name!r}; see docs/data_model.md")
-    aug = met[[v for v in MET_VARIABLES if v in met]]
+    aug = met[[v for v in MET_VARIABLES + AIR_DERIVED if v in met]]
     lazy = any(v.chunks is not None for v in aug.data_vars.values())
     if lazy:
         # the steps that look across hours, on the whole record (lazily); in memory

@@ -201,6 +201,18 @@ class DryOptions:
         does not scale (only its leafless hours use the scaled Rc).
     components : bool
         Return every path of Rc per gas (memory: about seven arrays per gas).
+    so2_codeposition : bool
+        SO2-NH3 co-deposition: over vegetated receptors the non-stomatal resistance of
+        SO2 falls with the hourly NH3/SO2 molar ratio of the measured air (Simpson et
+        al. 2012 after Fowler et al. 2001; Erisman et al. 1994 for the process; from
+        memory), either scheme; hours without both concentrations keep the scheme's
+        Rc.  Off by default (:mod:`workbench.drydep.codeposition`).
+    sampler_coarse_fraction : dict
+        ``{"<site>/<sampler_id>": {species: coarse fraction 0-1}}``: the coarse mass
+        fraction of a particle species measured by that sampler (e.g. a PM10 inlet
+        beside a total-suspended one), used in the hours its rows cover; it wins over
+        the site's ``coarse_fraction`` and the default rule
+        (:mod:`workbench.drydep.particle_fractions`).
     """
 
     gas_scheme: str = "wesely1989"
@@ -229,6 +241,8 @@ class DryOptions:
     compare_schemes: bool = False
     rc_scale: dict = field(default_factory=dict)
     components: bool = True
+    so2_codeposition: bool = False
+    sampler_coarse_fraction: dict = field(default_factory=dict)
 
     def __post_init__(self):
         if self.wetness_rule not in WETNESS_RULES:
@@ -266,6 +280,17 @@ class DryOptions:
             if gas not in AIR_GASES or isinstance(k, bool) or not float(k) > 0:
                 raise ValueError(f"rc_scale: {gas!r} = {k!r}; expected a gas of "
                                  f"{', '.join(AIR_GASES)} and a multiplier > 0")
+        for key, table in self.sampler_coarse_fraction.items():
+            if "/" not in str(key) or not isinstance(table, dict) or not table:
+                raise ValueError(f"sampler_coarse_fraction: {key!r} = {table!r}; expected "
+                                 "'<site>/<sampler_id>' = {species = fraction}")
+            for sp, f in table.items():
+                if sp not in default_particle_modes() or isinstance(f, bool) or \
+                        not 0.0 <= float(f) <= 1.0:
+                    raise ValueError(f"sampler_coarse_fraction: {key!r}: {sp!r} = {f!r}; "
+                                     "expected a particle species of "
+                                     f"{', '.join(default_particle_modes())} and a fraction "
+                                     "0-1")
         sc = self.seasonal_category
         if sc is not None:
             cats = [sc] if isinstance(sc, int) else list(sc)

@@ -29,6 +29,7 @@ import xarray as xr
 from ..constants import ZERO_CELSIUS
 from ..species import get as _species
 from ..surface._array import is_xarray, where
+from . import codeposition
 from .gas import HNO3_RC_COLD_SLOPE, HNO3_RC_FLOOR, nitric_acid_floor  # noqa: F401
 
 NAME = "wesely1989"
@@ -564,7 +565,11 @@ def surface_resistances(gases, state) -> dict:
             floor_used = rc < floor
             rc = where(floor_used, floor, rc)
         rc = rc + nan_rc
+        if gas == "SO2":       # SO2-NH3 co-deposition (option; scheme's Rc where off)
+            rc, codep = codeposition.surface_resistance(_recip(rs + rm), rc, state)
         out[gas] = {"rc": rc, "stomatal": rs, "mesophyll": rm + 0.0 * t, "upper_canopy": rlu,
                     "convection": rdc, "lower_canopy": rcl, "canopy_transfer": rac + 0.0 * t,
                     "ground": rgs, "floor_used": floor_used}
+        if gas == "SO2":
+            out[gas]["codeposition_used"] = codep
     return out

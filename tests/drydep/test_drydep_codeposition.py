@@ -1,0 +1,176 @@
+"""SO2-NH3 co-deposition (`[dry] so2_codeposition`): the published relation, its use by
+both gas schemes, and the hourly NH3/SO2 ratio taken from the sampling periods.
+
+Reference values: R_ns(SO2) = 11.84 exp(1.1 a_SN) RH^-1.67, a_SN = SO2/NH3 molar,
+bounded to 10-1000 s/m (Simpson et al. 2012, Atmos. Chem. Phys. 12, 7825, after Fowler
+et al. 2001; coefficients from memory, as in the module).  The expected numbers below
+are that formula worked by hand.
+"""
+import math
+
+import numpy as np
+import pandas as pd
+import pytest
+import xarray as xr
+
+from drydep.dry_synthetic import make_met, make_surfaces
+from workbench.drydep import DryOptions, codeposition, velocities
+
+
+@pytest.mark.parametrize("ratio, rh, expected", [
+    (1.0, 0.8, 11.84 * math.exp(1.1) * 0.8 ** -1.67),       # 51.64 s/m
+    (2.0, 0.9, 11.84 * math.exp(0.55) * 0.9 ** -1.67),      # 24.47 s/m
+    (0.5, 0.7, 11.84 * math.exp(2.2) * 0.7 ** -1.67),       # 193.9 s/m
+    (5.0, 0.6, 11.84 * math.exp(0.22) * 0.6 ** -1.67),      # 34.2 s/m
+])
+def test_rns_formula_values_simpson2012(ratio, rh, expected):
+    got = float(codeposition.nonstomatal_resistance(ratio, rh))
+    assert got == pytest.approx(expected, rel=1e-12)
+    assert 10.0 < got < 1000.0
+
+
+def test_rns_bounds_and_limits():
+    # no NH3: a_SN infinite -> the upper bound; no SO2 (ratio inf) at RH 1 -> 11.84
+    assert float(codeposition.nonstomatal_resistance(0.0, 0.8)) == 1000.0
+    assert float(codeposition.nonstomatal_resistance(0.1, 0.8)) == 1000.0   # e^11 above
+    assert float(codeposition.nonstomatal_resistance(np.inf, 1.0)) == pytest.approx(11.84)
+    assert np.isnan(codeposition.nonstomatal_resistance(np.nan, 0.8))
+    assert np.isnan(codeposition.nonstomatal_resistance(1.0, np.nan))
+
+
+def test_rns_falls_monotonically_with_the_ratio():
+    ratio = np.geomspace(0.05, 100.0, 400)
+    for rh in (0.4, 0.7, 0.95):
+        r = codeposition.nonstomatal_resistance(ratio, rh)
+        assert np.all(np.diff(r) <= 0.0)
+        inside = (r > 10.0) & (r < 1000.0)
+        assert inside.sum() > 100 and np.all(np.diff(r[inside]) < 0.0)
+    # and with humidity at a fixed ratio
+    r_rh = codeposition.nonstomatal_resistance(1.0, np.linspace(0.3, 1.0, 50))
+    assert np.all(np.diff(r_rh) < 0.0)
+
+
+@pytest.fixture(scope="module")
+def synthetic():
+    surf = make_surfaces()
+    return surf, make_met(surf, hours=24 * 30, seed=11)
+
+
+def _with_ratio(met, value):
+    return met.assign(nh3_so2_ratio=(("site", "time"),
+                                     np.full((met.sizes["site"], met.sizes["time"]), value)))
+
+
+@pytest.mark.parametrize("scheme", ["wesely1989", "zhang2003"])
+def test_vd_so2_rises_with_the_ratio_in_both_schemes(synthetic, scheme):
+    surf, met = synthetic
+    opt = DryOptions(gas_scheme=scheme, particles=(), gases=("SO2",), so2_codeposition=True)
+    runs = {r: velocities(_with_ratio(met, r), surf, opt) for r in (0.2, 1.0, 3.0, 10.0)}
+    off = velocities(_with_ratio(met, 10.0), surf, DryOptions(gas_scheme=scheme, particles=(),
+                                                               gases=("SO2",)))
+    assert "so2_codeposition_used" not in off
+    for rec in ("grass", "conifer_forest", "crops"):
+        means = [float(runs[r]["vd_SO2"].sel(receptor=rec).mean()) for r in sorted(runs)]
+        assert all(b > a for a, b in zip(means, means[1:])), (rec, means)
+        # hour by hour too (never lower at the higher ratio)
+        lo, hi = runs[1.0]["vd_SO2"].sel(receptor=rec), runs[10.0]["vd_SO2"].sel(receptor=rec)
+        ok = np.isfinite(lo.values) & np.isfinite(hi.values)
+        assert np.all(hi.values[ok] >= lo.values[ok] * (1 - 1e-12))
+    used = runs[1.0]["so2_codeposition_used"]
+    # the scheme stands over non-vegetated receptors and on frozen hours
+    for rec in ("water", "barren", "urban", "snow_ice"):
+        np.testing.assert_array_equal(runs[1.0]["vd_SO2"].sel(receptor=rec).values,
+                                      off["vd_SO2"].sel(receptor=rec).values)
+        assert not used.sel(receptor=rec).any()
+    cold = (met["temperature"] < codeposition.FROZEN_BELOW).broadcast_like(used)
+    assert cold.any()
+    assert not bool(used.where(cold, False).any())
+    # the other gases do not move
+    assert bool(used.sel(receptor="grass").any())
+
+
+@pytest.mark.parametrize("scheme", ["wesely1989", "zhang2003"])
+def test_unknown_ratio_keeps_the_schemes_rc(synthetic, scheme):
+    surf, met = synthetic
+    ratio = np.full((met.sizes["site"], met.sizes["time"]), 2.0)
+    ratio[:, : met.sizes["time"] // 2] = np.nan
+    m = met.assign(nh3_so2_ratio=(("site", "time"), ratio))
+    on = velocities(m, surf, DryOptions(gas_scheme=scheme, particles=(), gases=("SO2",),
+                                        so2_codeposition=True))
+    off = velocities(m, surf, DryOptions(gas_scheme=scheme, particles=(), gases=("SO2",)))
+    half = dict(time=slice(0, met.sizes["time"] // 2))
+    np.testing.assert_array_equal(on["vd_SO2"].isel(**half).values,
+                                  off["vd_SO2"].isel(**half).values)
+    assert not on["so2_codeposition_used"].isel(**half).any()
+    # no ratio at all in the met: the option changes nothing
+    none = velocities(met, surf, DryOptions(gas_scheme=scheme, particles=(), gases=("SO2",),
+                                            so2_codeposition=True))
+    np.testing.assert_array_equal(none["vd_SO2"].values,
+                                  velocities(met, surf, DryOptions(
+                                      gas_scheme=scheme, particles=(),
+                                      gases=("SO2",)))["vd_SO2"].values)
+
+
+def test_rc_keeps_the_stomatal_path():
+    # Rc = 1/(g_sto + 1/R_ns) where it applies
+    from workbench.drydep.gas import CanopyState
+    state = CanopyState(np.array(["grass", "water"], dtype=object)[:, None], 1.0, 300.0,
+                        np.array([[290.0, 290.0, 270.0]]), 0.0, relative_humidity=0.8,
+                        nh3_so2_ratio=np.array([[1.0, np.nan, 1.0]]))
+    g = np.full((2, 3), 1.0 / 200.0)
+    rc, used = codeposition.surface_resistance(g, np.full((2, 3), 400.0), state)
+    expected = 1.0 / (1.0 / 200.0 + 1.0 / (11.84 * math.exp(1.1) * 0.8 ** -1.67))
+    assert rc[0, 0] == pytest.approx(expected)
+    assert used.tolist() == [[True, False, False], [False, False, False]]
+    assert rc[0, 1] == rc[0, 2] == rc[1, 0] == 400.0
+
+
+# --- the hourly ratio from the sampling periods -------------------------------------------------
+def _air(rows, quantity="amount_density", so2_quantity=None):
+    df = pd.DataFrame(rows, columns=["site", "start", "end", "sampler_id", "NH3", "SO2",
+                                     "SO2_censored", "SO2_detection_limit"])
+    ds = xr.Dataset({c: ("period", df[c].to_numpy()) for c in df.columns})
+    for c in ("start", "end"):
+        ds[c] = ("period", pd.to_datetime(df[c]).to_numpy())
+    ds["NH3"].attrs["quantity"] = quantity
+    ds["SO2"].attrs["quantity"] = so2_quantity or quantity
+    ds["NH3_censored"] = ("period", np.zeros(len(df), bool))
+    return ds
+
+
+def test_hourly_ratio_maps_each_period_onto_its_hours():
+    times = pd.date_range("2021-01-01T01:00", periods=72, freq="h").to_numpy()
+    nan = np.nan
+    air = _air([
+        # NH3 over the three days (one row), SO2 daily; the third SO2 day below detection
+        ("a", "2021-01-01T00:00", "2021-01-04T00:00", "", 4.0, nan, False, nan),
+        ("a", "2021-01-01T00:00", "2021-01-02T00:00", "", nan, 1.0, False, nan),
+        ("a", "2021-01-02T00:00", "2021-01-03T00:00", "", nan, 2.0, False, nan),
+        ("a", "2021-01-03T00:00", "2021-01-04T00:00", "", nan, nan, True, 0.5),
+        # site b: SO2 only on day 1
+        ("b", "2021-01-01T00:00", "2021-01-02T00:00", "", 1.0, 1.0, False, nan),
+    ])
+    r = codeposition.hourly_ratio(air, times, ["a", "b", "c"])
+    assert r.shape == (3, 72)
+    np.testing.assert_allclose(r[0, :24], 4.0)
+    np.testing.assert_allclose(r[0, 24:48], 2.0)
+    np.testing.assert_allclose(r[0, 48:], 4.0 / 0.25)      # half the detection limit
+    np.testing.assert_allclose(r[1, :24], 1.0)
+    assert np.isnan(r[1, 24:]).all() and np.isnan(r[2]).all()
+
+
+def test_hourly_ratio_overlapping_samplers_and_units():
+    times = pd.date_range("2021-01-01T01:00", periods=48, freq="h").to_numpy()
+    nan = np.nan
+    rows = [("a", "2021-01-01T00:00", "2021-01-03T00:00", "x", 2.0, 1.0, False, nan),
+            # a second SO2 sampler over day 1 only: the budget's primary sampler is x
+            ("a", "2021-01-01T00:00", "2021-01-02T00:00", "y", nan, 4.0, False, nan)]
+    r = codeposition.hourly_ratio(_air(rows), times, ["a"])
+    np.testing.assert_allclose(r, 2.0)
+    mixed = _air(rows[:1], quantity="amount_density", so2_quantity="mixing_ratio")
+    with pytest.raises(ValueError, match="temperature"):
+        codeposition.hourly_ratio(mixed, times, ["a"])
+    t, p = np.full((1, 48), 280.0), np.full((1, 48), 1.0e5)
+    r = codeposition.hourly_ratio(mixed, times, ["a"], t, p)
+    np.testing.assert_allclose(r, 2.0 / (1.0 * 1.0e5 / (8.314462618 * 280.0)))
+    assert np.isnan(codeposition.hourly_ratio(None, times, ["a"])).all()
