@@ -565,11 +565,11 @@ def surface_resistances(gases, state) -> dict:
             floor_used = rc < floor
             rc = where(floor_used, floor, rc)
         rc = rc + nan_rc
-        if gas == "SO2":       # SO2-NH3 co-deposition (option; scheme's Rc where off)
+        if gas == "SO2" and state.nh3_so2_ratio is not None:  # co-deposition option
             rc, codep = codeposition.surface_resistance(_recip(rs + rm), rc, state)
         out[gas] = {"rc": rc, "stomatal": rs, "mesophyll": rm + 0.0 * t, "upper_canopy": rlu,
                     "convection": rdc, "lower_canopy": rcl, "canopy_transfer": rac + 0.0 * t,
                     "ground": rgs, "floor_used": floor_used}
-        if gas == "SO2":
+        if gas == "SO2" and state.nh3_so2_ratio is not None:
             out[gas]["codeposition_used"] = codep
     return out

@@ -519,12 +519,12 @@ def surface_resistances(gases, state) -> dict:
             floor_used = rc < floor
             rc = where(floor_used, floor, rc)
         rc = rc + nan
-        if gas == "SO2":       # SO2-NH3 co-deposition (option; scheme's Rc where off)
+        if gas == "SO2" and state.nh3_so2_ratio is not None:  # co-deposition option
             rc, codep = codeposition.surface_resistance((1.0 - wst) * _recip(rst + rm), rc,
                                                         state)
         out[gas] = {"rc": rc, "stomatal": rst, "mesophyll": rm, "cuticle": rcut,
                     "canopy_transfer": rac + zero, "ground": rg,
                     "stomatal_blocking": wst + zero, "floor_used": floor_used}
-        if gas == "SO2":
+        if gas == "SO2" and state.nh3_so2_ratio is not None:
             out[gas]["codeposition_used"] = codep
     return out
