@@ -124,7 +124,8 @@ _MICROMET_OPTIONS = ("roughness", "ustar_floor", "ra_cap", "ra_min_height_z0",
 _STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule")
 #: Options of the gases, besides those of steps 1-5.
 _GAS_OPTIONS = ("gas_scheme", "gases", "components", "nh3_treatment", "hno3_rc_floor",
-                "nh3_emission_potential", "nh3_acid_ratio", "rc_scale", "so2_codeposition")
+                "nh3_emission_potential", "nh3_acid_ratio", "rc_scale", "so2_codeposition",
+                "nh3_cuticle")
 
 #: What steps 1-4 hand on (the cached result of the surface layer), and step 5.
 _MICROMET_OUT = ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "cloud",
@@ -401,6 +402,9 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             nh3_so2_ratio=st("nh3_so2_ratio") if opt.so2_codeposition else None)
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
             comps = _gas.surface_resistances(scheme, opt.gases, state)
+            if "NH3" in comps and _nh3.resolve_cuticle(opt.nh3_cuticle, scheme) == "humidity":
+                comps["NH3"] = {**comps["NH3"], "rc": _nh3.humidity_cuticle_rc(
+                    comps["NH3"], rh, receptors, opt.nh3_acid_ratio)}
             for g, k in opt.rc_scale.items():      # sensitivity knob: k Rc (default 1)
                 if g in comps:
                     comps[g] = {**comps[g], "rc": float(k) * comps[g]["rc"]}
@@ -632,6 +636,8 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
     ds.attrs = {"gas_scheme": _gas.get_scheme(opt.gas_scheme).REFERENCE,
                 "particle_scheme": "Zhang et al. (2001), Atmos. Environ. 35, 549-560",
                 "nh3": NH3_NOTE, "wetness_rule": opt.wetness_rule,
+                "nh3_cuticle": _nh3.resolve_cuticle(opt.nh3_cuticle,
+                                                    _gas.get_scheme(opt.gas_scheme)),
                 "ustar_floor_m_s": opt.ustar_floor, "ra_cap_s_m": opt.ra_cap,
                 "blending_height_m": opt.blending_height,
                 "time_convention": "end of each hour, UTC"}

@@ -201,6 +201,13 @@ class DryOptions:
         does not scale (only its leafless hours use the scaled Rc).
     components : bool
         Return every path of Rc per gas (memory: about seven arrays per gas).
+    nh3_cuticle : str
+        Non-stomatal path of the deposition-only NH3: ``"humidity"``, the cuticle R_w =
+        (31.5/AR) exp((100 - RH[%])/12) of Massad et al. (2010) beside the scheme's
+        stomatal path (the canopy model's Vd without its emission); ``"scheme"``, the
+        scheme's own paths; ``"auto"`` (default): humidity for wesely1989, which gives
+        NH3 no treatment of its own, the scheme's own for zhang2003 (NH3 takes SO2's
+        humidity-dependent cuticle).  docs/methods_dry.md section 9.
     so2_codeposition : bool
         SO2-NH3 co-deposition: over vegetated receptors the non-stomatal resistance of
         SO2 falls with the hourly NH3/SO2 molar ratio of the measured air (Simpson et
@@ -241,6 +248,7 @@ class DryOptions:
     compare_schemes: bool = False
     rc_scale: dict = field(default_factory=dict)
     components: bool = True
+    nh3_cuticle: str = "auto"
     so2_codeposition: bool = False
     sampler_coarse_fraction: dict = field(default_factory=dict)
 
@@ -273,6 +281,10 @@ class DryOptions:
                 raise ValueError(f"nh3_emission_potential: {key!r} = {value!r}; expected "
                                  "'<class>' or '<site>/<class>' of our land-use classes and "
                                  "a value >= 0")
+        from .nh3_bidirectional import CUTICLE_RULES
+        if self.nh3_cuticle not in CUTICLE_RULES:
+            raise ValueError(f"unknown nh3_cuticle {self.nh3_cuticle!r}; use one of "
+                             f"{CUTICLE_RULES}")
         if not self.nh3_acid_ratio > 0:
             raise ValueError("nh3_acid_ratio must be > 0")
         from ..species import AIR_GASES

@@ -44,6 +44,9 @@ PATH_NAMES = {"convection": "in-canopy buoyant convection resistance r_dc",
               "canopy_transfer": "in-canopy aerodynamic transfer resistance r_ac"}
 #: Wesely (1989) publishes no dew rule: dew by the humidity at air temperature.
 DEW_RULE = "air_temperature"
+#: NH3 has no path of its own in Wesely (1989): ``nh3_cuticle = "auto"`` gives it the
+#: humidity-dependent cuticle (:func:`workbench.drydep.nh3_bidirectional.resolve_cuticle`).
+NH3_CUTICLE = "humidity"
 
 _X = np.inf  # Wesely's 9999: the path does not exist
 #: Wesely's land-use types (Table 1 columns): 1 urban, 2 agricultural, 3 range,
