@@ -6,6 +6,7 @@ bounded to 10-1000 s/m (Simpson et al. 2012, Atmos. Chem. Phys. 12, 7825, after 
 et al. 2001; coefficients from memory, as in the module).  The expected numbers below
 are that formula worked by hand.
 """
+import dataclasses
 import math
 
 import numpy as np
@@ -174,3 +175,31 @@ def test_hourly_ratio_overlapping_samplers_and_units():
     r = codeposition.hourly_ratio(mixed, times, ["a"], t, p)
     np.testing.assert_allclose(r, 2.0 / (1.0 * 1.0e5 / (8.314462618 * 280.0)))
     assert np.isnan(codeposition.hourly_ratio(None, times, ["a"])).all()
+
+
+def test_study_hands_the_air_derived_hours_to_the_engine():
+    # the demo: the ratio of an hour is NH3/SO2 [mol m-3] of the rows covering it, and
+    # a sampler's coarse fraction reaches its hours
+    from pathlib import Path
+    from workbench.pipeline import Study
+    from workbench.scenario import load_scenario
+    demo = Path(__file__).resolve().parents[2] / "demo_data"
+    study = Study.from_scenario(load_scenario(demo / "scenario.toml"))
+    assert study._met_with_air(DryOptions()) is study.inputs.met
+    opt = DryOptions(so2_codeposition=True,
+                     sampler_coarse_fraction={"ridge/RDG-F1": {"pNO3": 0.45}})
+    met = study._met_with_air(opt)
+    air = study.inputs.air
+    row = int(np.flatnonzero((air["site"].values == "ridge") & np.isfinite(air["NH3"].values)
+                             & np.isfinite(air["SO2"].values))[5])
+    hour = air["start"].values[row] + np.timedelta64(5, "h")
+    got = float(met["nh3_so2_ratio"].sel(site="ridge", time=hour))
+    assert got == pytest.approx(float(air["NH3"][row] / air["SO2"][row]), rel=1e-9)
+    f = met["coarse_fraction_pNO3"].sel(site="ridge")
+    assert float(f.sel(time=hour)) == 0.45
+    assert np.isnan(met["coarse_fraction_pNO3"].sel(site="farm")).all()
+    month = met.sel(time=slice("2021-06-01T01:00", "2021-07-01T00:00"))
+    ds = velocities(month, study.surfaces(), dataclasses.replace(opt, particles=("pNO3",),
+                                                                 gases=("SO2",)))
+    assert bool(ds["so2_codeposition_used"].sel(site="ridge", receptor="grass").any())
+    assert "sampler_coarse_fraction" in ds["vd_pNO3"].attrs["coarse_fraction_source"]
