@@ -19,7 +19,7 @@ from workbench.drydep import DryOptions, codeposition, velocities
 
 
 @pytest.mark.parametrize("ratio, rh, expected", [
-    (1.0, 0.8, 11.84 * math.exp(1.1) * 0.8 ** -1.67),       # 51.64 s/m
+    (1.0, 0.8, 11.84 * math.exp(1.1) * 0.8 ** -1.67),       # 51.63 s/m
     (2.0, 0.9, 11.84 * math.exp(0.55) * 0.9 ** -1.67),      # 24.47 s/m
     (0.5, 0.7, 11.84 * math.exp(2.2) * 0.7 ** -1.67),       # 193.9 s/m
     (5.0, 0.6, 11.84 * math.exp(0.22) * 0.6 ** -1.67),      # 34.2 s/m

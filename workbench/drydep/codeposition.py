@@ -57,7 +57,7 @@ RNS_RH_EXPONENT = -1.67
 RNS_MIN = 10.0
 RNS_MAX = 1000.0
 #: Least relative humidity put into RH^-1.67 [1] (numerical device: RH = 0 would
-#: give an infinite conductance's opposite; the bound RNS_MAX acts long before).
+#: give an infinite resistance; the bound RNS_MAX applies long before).
 RH_FLOOR = 0.01
 #: Our classes with leaf surfaces, over which the relation replaces the scheme's
 #: non-stomatal paths (our choice: the fit comes from vegetated sites).
@@ -96,7 +96,7 @@ def nonstomatal_resistance(nh3_so2_ratio, relative_humidity):
     al. (2001), Water Air Soil Pollut. Focus 1, 39-48 (coefficients from memory).
 
     >>> round(float(nonstomatal_resistance(1.0, 0.8)), 2)
-    51.64
+    51.63
     """
     r = np.asarray(nh3_so2_ratio, dtype=float)
     rh = np.maximum(np.asarray(relative_humidity, dtype=float), RH_FLOOR)
