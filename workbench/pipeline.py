@@ -237,23 +237,28 @@ class Study:
 
     def _met_with_air(self, dry_options):
         """The met Dataset with the hourly inputs the dry options take from the air
-        concentrations (site, time): the NH3/SO2 ratio of ``so2_codeposition`` and the
-        sampler coarse fractions of ``sampler_coarse_fraction`` (docs/methods_dry.md)."""
+        concentrations (site, time): the NH3/SO2 ratio of ``so2_codeposition``, the acid
+        ratio of ``nh3_acid_ratio_from_air`` and the sampler coarse fractions of
+        ``sampler_coarse_fraction`` (docs/methods_dry.md)."""
         met, air = self.inputs.met, self.inputs.air
         if air is None or not (dry_options.so2_codeposition
+                               or dry_options.nh3_acid_ratio_from_air
                                or dry_options.sampler_coarse_fraction):
             return met
         from .drydep import codeposition, particle_fractions
         sites, times = [str(x) for x in met["site"].values], met["time"].values
         extra = {}
-        if dry_options.so2_codeposition:
+        if dry_options.so2_codeposition or dry_options.nh3_acid_ratio_from_air:
             t = met["temperature"].transpose("site", "time").values
             p = (met["pressure"].transpose("site", "time").values if "pressure" in met
                  else np.full(t.shape, np.nan))
             elev = self.surfaces()["elevation"].sel(site=sites).values.astype(float)
             from .surface.air import standard_pressure_at
             p = np.where(np.isnan(p), standard_pressure_at(elev)[:, None], p)
-            extra["nh3_so2_ratio"] = codeposition.hourly_ratio(air, times, sites, t, p)
+            if dry_options.so2_codeposition:
+                extra["nh3_so2_ratio"] = codeposition.hourly_ratio(air, times, sites, t, p)
+            if dry_options.nh3_acid_ratio_from_air:
+                extra["nh3_acid_ratio"] = codeposition.hourly_acid_ratio(air, times, sites, t, p)
         for sp, f in particle_fractions.hourly_sampler_fractions(air, times, sites,
                                                                  dry_options).items():
             extra[f"coarse_fraction_{sp}"] = f

@@ -186,15 +186,19 @@ def test_study_hands_the_air_derived_hours_to_the_engine():
     demo = Path(__file__).resolve().parents[2] / "demo_data"
     study = Study.from_scenario(load_scenario(demo / "scenario.toml"))
     assert study._met_with_air(DryOptions()) is study.inputs.met
-    opt = DryOptions(so2_codeposition=True,
+    opt = DryOptions(so2_codeposition=True, nh3_acid_ratio_from_air=True,
                      sampler_coarse_fraction={"ridge/RDG-F1": {"pNO3": 0.45}})
     met = study._met_with_air(opt)
     air = study.inputs.air
     row = int(np.flatnonzero((air["site"].values == "ridge") & np.isfinite(air["NH3"].values)
-                             & np.isfinite(air["SO2"].values))[5])
+                             & np.isfinite(air["SO2"].values)
+                             & np.isfinite(air["HNO3"].values))[5])
     hour = air["start"].values[row] + np.timedelta64(5, "h")
     got = float(met["nh3_so2_ratio"].sel(site="ridge", time=hour))
     assert got == pytest.approx(float(air["NH3"][row] / air["SO2"][row]), rel=1e-9)
+    acid = float(met["nh3_acid_ratio"].sel(site="ridge", time=hour))
+    assert acid == pytest.approx(float((2 * air["SO2"][row] + air["HNO3"][row])
+                                       / air["NH3"][row]), rel=1e-9)
     f = met["coarse_fraction_pNO3"].sel(site="ridge")
     assert float(f.sel(time=hour)) == 0.45
     assert np.isnan(met["coarse_fraction_pNO3"].sel(site="farm")).all()
@@ -203,3 +207,31 @@ def test_study_hands_the_air_derived_hours_to_the_engine():
                                                                  gases=("SO2",)))
     assert bool(ds["so2_codeposition_used"].sel(site="ridge", receptor="grass").any())
     assert "sampler_coarse_fraction" in ds["vd_pNO3"].attrs["coarse_fraction_source"]
+
+
+def test_hourly_acid_ratio_and_its_use_by_the_nh3_cuticle(synthetic):
+    # AR = (2 SO2 + HNO3)/NH3 of the covering periods (Massad et al. 2010's ratio)
+    times = pd.date_range("2021-01-01T01:00", periods=48, freq="h").to_numpy()
+    air = _air([("a", "2021-01-01T00:00", "2021-01-03T00:00", "", 4.0, 1.0, False, np.nan)])
+    air["HNO3"] = ("period", np.array([0.5]), {"quantity": "amount_density"})
+    np.testing.assert_allclose(codeposition.hourly_acid_ratio(air, times, ["a", "b"])[0],
+                               (2 * 1.0 + 0.5) / 4.0)
+    assert np.isnan(codeposition.hourly_acid_ratio(air, times, ["a", "b"])[1]).all()
+    assert np.isnan(codeposition.hourly_acid_ratio(air.drop_vars("HNO3"), times, ["a"])).all()
+    # the engine: an hourly AR from the air equals the same constant option value,
+    # and hours without one keep the option's
+    surf, met = synthetic
+    ar = np.full((met.sizes["site"], met.sizes["time"]), 0.3)
+    ar[:, :100] = np.nan
+    m = met.assign(nh3_acid_ratio=(("site", "time"), ar))
+    base = dict(particles=(), gases=("NH3",), nh3_treatment="bidirectional")
+    got = velocities(m, surf, DryOptions(nh3_acid_ratio_from_air=True, **base))
+    const = velocities(met, surf, DryOptions(nh3_acid_ratio=0.3, **base))
+    default = velocities(met, surf, DryOptions(**base))
+    for v in ("vd_NH3", "vd_NH3_bidirectional"):
+        np.testing.assert_allclose(got[v].isel(time=slice(100, None)).values,
+                                   const[v].isel(time=slice(100, None)).values, rtol=1e-12)
+        np.testing.assert_array_equal(got[v].isel(time=slice(0, 100)).values,
+                                      default[v].isel(time=slice(0, 100)).values)
+    off = velocities(m, surf, DryOptions(**base))         # option off: the ratio unused
+    np.testing.assert_array_equal(off["vd_NH3"].values, default["vd_NH3"].values)

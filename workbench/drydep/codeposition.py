@@ -222,6 +222,53 @@ def _molar(air, species, times, sites, air_molar_density):
     return hourly, "amount_density"
 
 
+def hourly_amounts(air, species, times, sites, temperature=None, pressure=None):
+    """Hourly molar amounts of several species from their sampling periods (site, time).
+
+    Parameters
+    ----------
+    air : xarray.Dataset
+    species : sequence of str
+    times : numpy.ndarray of datetime64
+    sites : sequence of str
+    temperature, pressure : numpy.ndarray, optional
+        (site, time) [K], [Pa]: needed only when the species mix mass concentrations
+        and mixing ratios (then all are returned as amounts [mol m-3]).
+
+    Returns
+    -------
+    dict
+        species -> (site, time) amounts [mol m-3] or, when every species is a mixing
+        ratio, mixing ratios [mol mol-1]; NaN where no period covers the hour or the
+        species is not in `air`.  Ratios of two of them are molar ratios either way.
+    """
+    present = [sp for sp in species if sp in air]
+    kinds = {air[sp].attrs.get("quantity", "amount_density") for sp in present}
+    density = None
+    if len(kinds) > 1:
+        if temperature is None or pressure is None:
+            raise ValueError(f"{', '.join(present)} are given partly as mass concentrations "
+                             "and partly as mixing ratios: the hourly temperature [K] and "
+                             "pressure [Pa] are needed to compare them")
+        density = np.asarray(pressure, float) / (GAS_CONSTANT * np.asarray(temperature, float))
+    return {sp: _molar(air, sp, times, sites, density)[0] for sp in species}
+
+
+def hourly_acid_ratio(air, times, sites, temperature=None, pressure=None):
+    """Molar acid ratio AR = (2 SO2 + HNO3)/NH3 of the air in each hour (site, time) [1].
+
+    The ratio of the NH3 cuticle of Massad et al. (2010)
+    (:func:`workbench.drydep.nh3_bidirectional.cuticular_resistance`), from the
+    sampling periods as :func:`hourly_ratio`; NaN where any of the three is unknown.
+    """
+    n = (len(sites), len(times))
+    if air is None or any(sp not in air for sp in ("SO2", "HNO3", "NH3")):
+        return np.full(n, np.nan)
+    c = hourly_amounts(air, ("SO2", "HNO3", "NH3"), times, sites, temperature, pressure)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return (2.0 * c["SO2"] + c["HNO3"]) / c["NH3"]
+
+
 def hourly_ratio(air, times, sites, temperature=None, pressure=None):
     """Molar ratio NH3/SO2 of the air in each hour (site, time) [1].
 
@@ -245,16 +292,8 @@ def hourly_ratio(air, times, sites, temperature=None, pressure=None):
     n = (len(sites), len(times))
     if air is None or "NH3" not in air or "SO2" not in air:
         return np.full(n, np.nan)
-    q = {sp: air[sp].attrs.get("quantity", "amount_density") for sp in ("NH3", "SO2")}
-    density = None
-    if q["NH3"] != q["SO2"]:
-        if temperature is None or pressure is None:
-            raise ValueError("NH3 and SO2 are given one as a mass concentration and one as "
-                             "a mixing ratio: the hourly temperature [K] and pressure [Pa] "
-                             "are needed to compare them")
-        density = np.asarray(pressure, float) / (GAS_CONSTANT * np.asarray(temperature, float))
-    nh3, _ = _molar(air, "NH3", times, sites, density)
-    so2, _ = _molar(air, "SO2", times, sites, density)
+    c = hourly_amounts(air, ("NH3", "SO2"), times, sites, temperature, pressure)
+    nh3, so2 = c["NH3"], c["SO2"]
     with np.errstate(divide="ignore", invalid="ignore"):
         ratio = np.where(so2 > 0, nh3 / so2, np.where(so2 == 0, np.inf, np.nan))
     return np.where(np.isnan(nh3) | np.isnan(so2), np.nan, ratio)

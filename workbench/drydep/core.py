@@ -78,7 +78,7 @@ MET_VARIABLES = ("wind_speed", "temperature", "relative_humidity", "solar_radiat
 #: (:func:`workbench.drydep.codeposition.hourly_ratio`) and the coarse fraction of a
 #: particle species from the sampler of each hour [1]
 #: (:func:`workbench.drydep.particle_fractions.hourly_sampler_fractions`).
-AIR_DERIVED = ("nh3_so2_ratio",) + tuple(f"coarse_fraction_{sp}" for sp in
+AIR_DERIVED = ("nh3_so2_ratio", "nh3_acid_ratio") + tuple(f"coarse_fraction_{sp}" for sp in
                                          ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa"))
 _PREV = "_previous_precipitation"
 _FROST = "_autumn_frost_seen"
@@ -125,7 +125,7 @@ _STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule")
 #: Options of the gases, besides those of steps 1-5.
 _GAS_OPTIONS = ("gas_scheme", "gases", "components", "nh3_treatment", "hno3_rc_floor",
                 "nh3_emission_potential", "nh3_acid_ratio", "rc_scale", "so2_codeposition",
-                "nh3_cuticle")
+                "nh3_cuticle", "nh3_acid_ratio_from_air")
 
 #: What steps 1-4 hand on (the cached result of the surface layer), and step 5.
 _MICROMET_OUT = ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "cloud",
@@ -402,9 +402,12 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             nh3_so2_ratio=st("nh3_so2_ratio") if opt.so2_codeposition else None)
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
             comps = _gas.surface_resistances(scheme, opt.gases, state)
+            acid = opt.nh3_acid_ratio
+            if opt.nh3_acid_ratio_from_air and "nh3_acid_ratio" in block:
+                acid = np.where(np.isfinite(st("nh3_acid_ratio")), st("nh3_acid_ratio"), acid)
             if "NH3" in comps and _nh3.resolve_cuticle(opt.nh3_cuticle, scheme) == "humidity":
                 comps["NH3"] = {**comps["NH3"], "rc": _nh3.humidity_cuticle_rc(
-                    comps["NH3"], rh, receptors, opt.nh3_acid_ratio)}
+                    comps["NH3"], rh, receptors, acid)}
             for g, k in opt.rc_scale.items():      # sensitivity knob: k Rc (default 1)
                 if g in comps:
                     comps[g] = {**comps[g], "rc": float(k) * comps[g]["rc"]}
@@ -417,7 +420,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             if opt.nh3_treatment == "bidirectional" and "NH3" in opt.gases:
                 flat.update({f"nh3bd|{k}": v for k, v in _nh3.hourly_exchange(
                     comps["NH3"], rbs["NH3"], ra, temp, rh, receptors,
-                    [str(x) for x in surf["site"].values], opt).items()})
+                    [str(x) for x in surf["site"].values], opt, acid_ratio=acid).items()})
         return flat
 
 

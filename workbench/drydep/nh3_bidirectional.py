@@ -185,7 +185,7 @@ def net_flux(concentration, vd, emission):
 
 
 def hourly_exchange(nh3_paths, rb, ra, temperature, relative_humidity, receptors, sites,
-                    options) -> dict:
+                    options, acid_ratio=None) -> dict:
     """The compensation point model on the engine's arrays (site, receptor, time).
 
     Parameters
@@ -203,6 +203,8 @@ def hourly_exchange(nh3_paths, rb, ra, temperature, relative_humidity, receptors
         Along the receptor and site axes.
     options : workbench.drydep.DryOptions
         ``nh3_emission_potential`` and ``nh3_acid_ratio``.
+    acid_ratio : array_like, optional
+        Hourly acid ratio replacing ``nh3_acid_ratio`` (e.g. from the air). [-]
 
     Returns
     -------
@@ -213,7 +215,8 @@ def hourly_exchange(nh3_paths, rb, ra, temperature, relative_humidity, receptors
     gamma = np.stack([emission_potential(receptors, options.nh3_emission_potential, s)
                       for s in sites])[:, :, None]
     chi_s = stomatal_compensation_point(gamma, temperature)
-    r_w = cuticular_resistance(relative_humidity, options.nh3_acid_ratio)
+    r_w = cuticular_resistance(relative_humidity, options.nh3_acid_ratio
+                               if acid_ratio is None else acid_ratio)
     r_s = nh3_paths["stomatal"] + nh3_paths.get("mesophyll", 0.0)
     vd, emission = exchange(ra, rb, r_s, r_w, chi_s)
     leaves = np.array([r in VEGETATED for r in receptors])[None, :, None]

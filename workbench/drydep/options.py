@@ -192,6 +192,11 @@ class DryOptions:
     nh3_acid_ratio : float
         Molar ratio (2 SO2 + HNO3)/NH3 of the cuticular resistance (Massad et al.
         2010); 1 by default (our choice). [-]
+    nh3_acid_ratio_from_air : bool
+        Take the acid ratio of the NH3 cuticle from the measured air in each hour,
+        (2 SO2 + HNO3)/NH3 of the sampling periods covering it
+        (:func:`workbench.drydep.codeposition.hourly_acid_ratio`); hours without all
+        three keep `nh3_acid_ratio`.  Off by default.
     rc_scale : dict
         gas -> multiplier of that gas's surface resistance Rc [1], applied to the
         scheme's Rc (either scheme, after the HNO3 floor) before Vd = 1/(Ra + Rb + k Rc);
@@ -250,6 +255,7 @@ class DryOptions:
     components: bool = True
     nh3_cuticle: str = "auto"
     so2_codeposition: bool = False
+    nh3_acid_ratio_from_air: bool = False
     sampler_coarse_fraction: dict = field(default_factory=dict)
 
     def __post_init__(self):
