@@ -193,7 +193,8 @@ def test_nss_particulate_sulfate_from_sodium(tmp_path):
 
 def test_bulk_collector_corrections(tmp_path):
     """scale_wet multiplies the bulk deposition by bulk_wet_factor (0.8); exclude_particles
-    leaves particle dry deposition out as missing, with the reason in the note."""
+    takes the particles as caught in the bulk wet ion (0 in the dry pathway, the wet
+    ion's status), with the reason in the note."""
     base, _, _ = run_scenario(_with_particles(tmp_path / "a", pna=False), tmp_path / "a" / "o", quiet=True)
     wet_only = _get(pd.read_csv(base["budget.csv"]), "S", "wet", "SO4")["flux_kg_ha"]
     scaled, _, _ = run_scenario(_with_particles(tmp_path / "b", "bulk", "scale_wet", pna=False),
@@ -205,10 +206,16 @@ def test_bulk_collector_corrections(tmp_path):
     excl, _, _ = run_scenario(_with_particles(tmp_path / "c", "bulk", "exclude_particles", pna=False),
                               tmp_path / "c" / "o", quiet=True)
     t = pd.read_csv(excl["budget.csv"])
+    # one rule (docs/budget.md): taken as caught, the particles add 0 in the dry pathway
+    # and take the status of the wet ion that holds them, so the totals are not partial
     row = _get(t, "S", "dry", "pSO4")
-    assert row["status"] == "missing" and np.isnan(row["flux_kg_ha"])
-    assert "left out at a bulk collector" in row["note"]
-    assert "pSO4" in _get(t, "S", "total", "all")["missing_components"].split()
+    wet = _get(t, "S", "wet", "SO4")
+    assert row["flux_kg_ha"] == 0.0 and row["status"] == wet["status"]
+    assert "caught by the bulk collector" in row["note"] and "SO4" in row["note"]
+    total = _get(t, "S", "total", "all")
+    assert "pSO4" not in str(total["missing_components"]).split()
+    assert total["flux_kg_ha"] == pytest.approx(
+        wet_only + _get(t, "S", "dry", "SO2")["flux_kg_ha"])     # wet (bulk) + SO2 only
 
 
 def test_potential_acidity_and_shares(tmp_path):

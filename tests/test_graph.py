@@ -12,6 +12,7 @@ from workbench import graph as G
 from workbench.budget import BudgetOptions
 from workbench.drydep import DryOptions
 from workbench.drydep.gas import SCHEMES
+from workbench.drydep.nh3_bidirectional import CUTICLE_RULES
 from workbench.drydep.options import USTAR_TRANSFERS, WETNESS_RULES
 from workbench.drydep.seasons import SEASON_RULES
 from workbench.drydep.wetness import DEW_RULES
@@ -29,7 +30,8 @@ CHOICES = {"wet": dict(wet_options_module._CHOICES), "budget": dict(BudgetOption
            "dry": {"gas_scheme": tuple(SCHEMES), "wetness_rule": WETNESS_RULES,
                    "dew_rule": DEW_RULES, "season_rule": SEASON_RULES,
                    "ustar_transfer": USTAR_TRANSFERS,
-                   "nh3_treatment": ("deposition_only", "bidirectional")}}
+                   "nh3_treatment": ("deposition_only", "bidirectional"),
+                   "nh3_cuticle": CUTICLE_RULES}}
 
 
 def _explicit(base):
@@ -44,6 +46,7 @@ def _explicit(base):
         ("dry", "particle_modes"): {**base["dry"].particle_modes, "pNO3": fine},
         ("dry", "nh3_emission_potential"): {"grass": 300.0},
         ("dry", "rc_scale"): {"SO2": 2.0},
+        ("dry", "sampler_coarse_fraction"): {"ridge/RDG-F1": {"pNO3": 0.45}},
         ("budget", "diurnal_profile"): {"NH3": [1.0] * 12 + [2.0] * 12},
         ("budget", "preferred_method"): {"NH3": "denuder"},
     }

@@ -40,6 +40,9 @@ COMPONENTS = (
 OXIDIZED_N = ("NO3", "HNO3", "pNO3", "NO2")
 REDUCED_N = ("NH4", "NH3", "pNH4")
 PARTICLES = ("pSO4", "pNO3", "pNH4")
+#: The wet ion of a bulk collector that holds each particle species' dry deposition
+#: (``bulk_correction = "exclude_particles"``).
+BULK_CAUGHT_IN = {"pSO4": "SO4", "pNO3": "NO3", "pNH4": "NH4"}
 #: gas/particle pairs whose split a filter pack may bias (ammonium nitrate volatility).
 PAIRS = {"nitrate": ("HNO3", "pNO3"), "ammonium": ("NH3", "pNH4")}
 STATUS_ORDER = ("complete", "filled", "flagged")
@@ -94,8 +97,9 @@ class BudgetOptions:
         Concentrations below detection (common practice: half the limit).
     bulk_correction : {"none", "exclude_particles", "scale_wet"}
         A bulk collector's "wet" deposition holds some dry deposition.  "none" refuses
-        to add particle dry deposition at a bulk site; "exclude_particles" leaves
-        particle dry deposition out (taken as caught by the collector);
+        to add particle dry deposition at a bulk site; "exclude_particles" takes
+        particle dry deposition as caught by the collector: 0 in the dry pathway (it is in
+        the bulk wet ion), with that wet component's status, so the totals stay whole;
         "scale_wet" multiplies the bulk deposition by `bulk_wet_factor` and adds it.
     bulk_wet_factor : float
         Wet-only / bulk deposition ratio for "scale_wet" [1]; 0.8 is a typical value
@@ -319,20 +323,27 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             st, fl, why = dry_status(cov, vdc, fs, fc, meas, sok, bool(d_ratio[k]), options)
             fails[..., j] = fl
             comp_note[..., j] = why
+            c = np.fmin(np.fmin(cov, fc), vdc)
             if sp in PARTICLES and options.bulk_correction == "exclude_particles":
+                # taken as caught: the bulk "wet" ion holds it, so it adds 0 here and
+                # shares that wet component's status (docs/budget.md, bulk collectors)
                 excl = bulk[:, None, None] & np.ones((1, n_r, n_p), bool)
-                # not known apart from the bulk "wet" deposition: missing, and said why
-                d = np.where(excl, np.nan, d)
-                st = np.where(excl, "missing", st)
-                comp_note[..., j] = np.where(excl, "left out at a bulk collector: counted in "
-                                             "its wet deposition (bulk_correction "
+                ion = BULK_CAUGHT_IN[sp]
+                jw = [x[2] for x in comps].index(ion)
+                d = np.where(excl, np.where(status[..., jw] == "missing", np.nan, 0.0), d)
+                st = np.where(excl, status[..., jw], st)
+                c = np.where(excl, compl[..., jw], c)
+                fails[..., j] = np.where(excl, False, fails[..., j])
+                comp_note[..., j] = np.where(excl, f"caught by the bulk collector: counted in "
+                                             f"its wet {ion} deposition, 0 here (bulk_correction "
                                              "exclude_particles)", comp_note[..., j])
                 if excl.any():
-                    notes.append(f"{sp}: particle dry deposition left out at bulk-collector sites "
-                                 "(taken as caught by the collector)")
+                    notes.append(f"{sp}: particle dry deposition at bulk-collector sites taken "
+                                 f"as caught by the collector (in its wet {ion}; 0 in the dry "
+                                 "pathway)")
             dep[:, :, :, j] = d
             status[:, :, :, j] = st
-            compl[:, :, :, j] = np.fmin(np.fmin(cov, fc), vdc)
+            compl[:, :, :, j] = c
             fractions["air_coverage"][:, :, :, j] = cov
             fractions["flux_coverage"][:, :, :, j] = fc
             fractions["vd_coverage"][:, :, :, j] = vdc

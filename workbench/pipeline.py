@@ -247,7 +247,8 @@ class Study:
         steps = self.graph.steps(f"{met.key}+{surf.key}", self.counts)
         return self._run("velocities", {"dry": dry_options},
                          {"met": met, "surfaces": surf, "catalogue": self._catalogue_node(overrides),
-                          "steps": Node(f"input:steps:{met.key}+{surf.key}", steps)},
+                          "steps": Node(f"input:steps:{met.key}+{surf.key}", steps),
+                          "air": self._input("air", self.inputs.air)},
                          {"receptors": None if receptors is None else tuple(receptors)})
 
     def velocities(self, dry_options, overrides=None, receptors=None):

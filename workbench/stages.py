@@ -36,7 +36,8 @@ VELOCITY_OPTIONS = ("gas_scheme", "gases", "particles", "wetness_rule", "dew_rul
                     "night_cloud_cover", "roughness", "particle_modes", "coastal_distance",
                     "size_nodes", "unstable_iterations", "charnock_iterations",
                     "nh3_treatment", "nh3_emission_potential", "nh3_acid_ratio",
-                    "hno3_rc_floor", "rc_scale", "components")
+                    "hno3_rc_floor", "rc_scale", "components", "so2_codeposition",
+                    "nh3_cuticle", "nh3_acid_ratio_from_air", "sampler_coarse_fraction")
 #: Budget options of the assembly: completeness, status, bulk collectors and basis, and
 #: every other one for its provenance attribute (it runs on the dry rows that read them).
 BUDGET_OPTIONS = tuple(f.name for f in dataclasses.fields(BudgetOptions))
@@ -77,10 +78,16 @@ def surfaces(o, catalogue):
 
 
 @stage("velocities", reads={"dry": VELOCITY_OPTIONS}, counts_as="velocities")
-def velocities(o, met, surfaces, catalogue, steps, receptors):
-    """Hourly Ra, Rb, Rc and Vd (its steps are stages of their own)."""
+def velocities(o, met, surfaces, catalogue, steps, receptors, air=None):
+    """Hourly Ra, Rb, Rc and Vd (its steps are stages of their own).
+
+    The hourly inputs that dry options take from the air concentrations are added to
+    the met first (:func:`met_with_air`); the steps that use them declare the options
+    that make them, so the steps are keyed on the met as read.
+    """
     from .drydep import velocities as _velocities
     dry = o.dry
+    met = met_with_air(met, air, surfaces, dry)
     if dry.nh3_treatment == "bidirectional":          # the catalogue's site potentials
         site_g = catalogue.nh3_emission_potential()
         if site_g:
@@ -88,6 +95,35 @@ def velocities(o, met, surfaces, catalogue, steps, receptors):
                                                           **dry.nh3_emission_potential})
     return _velocities(met, surfaces, dry, cache=steps,
                        receptors=None if receptors is None else list(receptors))
+
+
+def met_with_air(met, air, surfaces, dry_options):
+    """The met Dataset with the hourly inputs the dry options take from the air
+    concentrations (site, time) [1]: the NH3/SO2 ratio of ``so2_codeposition``, the acid
+    ratio of ``nh3_acid_ratio_from_air`` and the sampler coarse fractions of
+    ``sampler_coarse_fraction`` (docs/methods_dry.md).  `met` itself when none is asked.
+    """
+    if air is None or not (dry_options.so2_codeposition or dry_options.nh3_acid_ratio_from_air
+                           or dry_options.sampler_coarse_fraction):
+        return met
+    from .drydep import codeposition, particle_fractions
+    from .surface.air import standard_pressure_at
+    sites, times = [str(x) for x in met["site"].values], met["time"].values
+    extra = {}
+    if dry_options.so2_codeposition or dry_options.nh3_acid_ratio_from_air:
+        t = met["temperature"].transpose("site", "time").values
+        p = (met["pressure"].transpose("site", "time").values if "pressure" in met
+             else np.full(t.shape, np.nan))
+        elev = surfaces["elevation"].sel(site=sites).values.astype(float)
+        p = np.where(np.isnan(p), standard_pressure_at(elev)[:, None], p)
+        if dry_options.so2_codeposition:
+            extra["nh3_so2_ratio"] = codeposition.hourly_ratio(air, times, sites, t, p)
+        if dry_options.nh3_acid_ratio_from_air:
+            extra["nh3_acid_ratio"] = codeposition.hourly_acid_ratio(air, times, sites, t, p)
+    for sp, f in particle_fractions.hourly_sampler_fractions(air, times, sites,
+                                                             dry_options).items():
+        extra[f"coarse_fraction_{sp}"] = f
+    return met.assign({k: (("site", "time"), v, {"units": "1"}) for k, v in extra.items()})
 
 
 @stage("vd_content")

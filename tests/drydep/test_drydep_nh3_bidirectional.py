@@ -1,4 +1,6 @@
 """Bidirectional NH3: compensation point, cuticle, exchange, and through the engine."""
+import dataclasses
+
 import numpy as np
 import pytest
 
@@ -90,3 +92,48 @@ def test_options_refuse_unknown_classes():
         DryOptions(nh3_emission_potential={"orchard": 100.0})
     with pytest.raises(ValueError, match="nh3_acid_ratio"):
         DryOptions(nh3_acid_ratio=0.0)
+
+
+# --- the deposition-only NH3 with the humidity-dependent cuticle (`[dry] nh3_cuticle`) ---------
+def test_nh3_cuticle_auto_by_scheme():
+    from workbench.drydep import gas, nh3_bidirectional as nb
+    assert nb.resolve_cuticle("auto", gas.get_scheme("wesely1989")) == "humidity"
+    assert nb.resolve_cuticle("auto", gas.get_scheme("zhang2003")) == "scheme"
+    assert nb.resolve_cuticle("scheme", gas.get_scheme("wesely1989")) == "scheme"
+    with pytest.raises(ValueError, match="nh3_cuticle"):
+        DryOptions(nh3_cuticle="wet")
+
+
+def test_humidity_cuticle_is_the_canopy_models_vd_without_emission():
+    # Massad et al. (2010) R_w beside the scheme's stomata: vd_NH3 (deposition only)
+    # equals the compensation point model's Vd on leaves; the scheme's Rc elsewhere
+    from drydep.dry_synthetic import make_met, make_surfaces
+    from workbench.drydep import velocities
+    surf = make_surfaces()
+    met = make_met(surf, hours=24 * 10, seed=4)
+    opt = DryOptions(particles=(), gases=("NH3",), nh3_treatment="bidirectional")
+    hum = velocities(met, surf, opt)
+    own = velocities(met, surf, dataclasses.replace(opt, nh3_cuticle="scheme"))
+    assert hum.attrs["nh3_cuticle"] == "humidity" and own.attrs["nh3_cuticle"] == "scheme"
+    for rec in ("grass", "conifer_forest", "crops", "wetland"):
+        a = hum["vd_NH3"].sel(receptor=rec).values
+        ok = np.isfinite(a)                  # NaN where the scheme's own Rc is unknown
+        np.testing.assert_array_equal(~ok, np.isnan(own["rc_NH3"].sel(receptor=rec).values))
+        np.testing.assert_allclose(a[ok], hum["vd_NH3_bidirectional"].sel(
+            receptor=rec).values[ok], rtol=1e-12)
+        if rec != "wetland":        # the single-layer model has no open-water ground
+            assert float(hum["vd_NH3"].sel(receptor=rec).mean()) > \
+                float(own["vd_NH3"].sel(receptor=rec).mean())
+    for rec in ("water", "barren", "snow_ice"):          # no leaves: the scheme's Rc
+        np.testing.assert_array_equal(hum["vd_NH3"].sel(receptor=rec).values,
+                                      own["vd_NH3"].sel(receptor=rec).values)
+    # the scheme rule is Wesely's own Rc: Vd = 1/(Ra + Rb + Rc_scheme)
+    np.testing.assert_allclose(own["vd_NH3"].values, 1.0 / (own["ra"] + own["rb_NH3"]
+                                                             + own["rc_NH3"]).values, rtol=1e-12)
+    # humidity dependence: on a closed-stomata canopy Rc = R_w, falling with RH
+    from workbench.drydep import nh3_bidirectional as nb
+    rh = np.array([0.5, 0.7, 0.9, 1.0])[None, None, :]
+    paths = {"rc": np.full((1, 1, 4), 900.0), "stomatal": np.full((1, 1, 4), np.inf)}
+    rc = nb.humidity_cuticle_rc(paths, rh, ["grass"])
+    np.testing.assert_allclose(rc, 31.5 * np.exp((100 - 100 * rh) / 12.0))   # Massad 2010
+    assert nb.humidity_cuticle_rc(paths, rh, ["water"]).tolist() == paths["rc"].tolist()

@@ -73,6 +73,13 @@ NH3_BIDIRECTIONAL_NOTE = (
 MET_VARIABLES = ("wind_speed", "temperature", "relative_humidity", "solar_radiation",
                  "precipitation", "pressure", "cloud_cover", "friction_velocity",
                  "sensible_heat_flux", "surface_wet", "snow_cover")
+#: Hourly inputs derived from the air concentrations (site, time), read when present:
+#: the NH3/SO2 molar ratio of the co-deposition option [1]
+#: (:func:`workbench.drydep.codeposition.hourly_ratio`) and the coarse fraction of a
+#: particle species from the sampler of each hour [1]
+#: (:func:`workbench.drydep.particle_fractions.hourly_sampler_fractions`).
+AIR_DERIVED = ("nh3_so2_ratio", "nh3_acid_ratio") + tuple(f"coarse_fraction_{sp}" for sp in
+                                         ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa"))
 _PREV = "_previous_precipitation"
 _FROST = "_autumn_frost_seen"
 
@@ -116,7 +123,8 @@ _MICROMET_OPTIONS = ("roughness", "ustar_floor", "ra_cap", "ra_min_height_z0",
 _STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule", "dew_rule", "gas_scheme")
 #: The gases (Rb, Rc and its paths, Vd; the bidirectional NH3 model).
 _GAS_OPTIONS = ("gas_scheme", "gases", "nh3_treatment", "hno3_rc_floor",
-                "nh3_emission_potential", "nh3_acid_ratio", "rc_scale")
+                "nh3_emission_potential", "nh3_acid_ratio", "rc_scale", "so2_codeposition",
+                "nh3_cuticle", "nh3_acid_ratio_from_air")
 #: One particle mode (the mode itself is a parameter).
 _PARTICLE_OPTIONS = ("size_nodes",)
 _graph.declare("micromet", {"dry": _MICROMET_OPTIONS}, freeze=True,
@@ -400,9 +408,16 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             land, cat, k_down, temp, kind, site("terrain_slope"), us_r,
             lai=_canopy.hourly_lai(surf, receptors, block["time"].values),
             relative_humidity=rh, cos_zenith=_canopy.cos_zenith(block["time"].values, site),
-            snow_cover=snow, hno3_rc_floor=opt.hno3_rc_floor)
+            snow_cover=snow, hno3_rc_floor=opt.hno3_rc_floor,
+            nh3_so2_ratio=st("nh3_so2_ratio") if opt.so2_codeposition else None)
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
             comps = _gas.surface_resistances(scheme, opt.gases, state)
+            acid = opt.nh3_acid_ratio
+            if opt.nh3_acid_ratio_from_air and "nh3_acid_ratio" in block:
+                acid = np.where(np.isfinite(st("nh3_acid_ratio")), st("nh3_acid_ratio"), acid)
+            if "NH3" in comps and _nh3.resolve_cuticle(opt.nh3_cuticle, scheme) == "humidity":
+                comps["NH3"] = {**comps["NH3"], "rc": _nh3.humidity_cuticle_rc(
+                    comps["NH3"], rh, receptors, acid)}
             for g, k in opt.rc_scale.items():      # sensitivity knob: k Rc (default 1)
                 if g in comps:
                     comps[g] = {**comps[g], "rc": float(k) * comps[g]["rc"]}
@@ -415,7 +430,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             if opt.nh3_treatment == "bidirectional" and "NH3" in opt.gases:
                 flat.update({f"nh3bd|{k}": v for k, v in _nh3.hourly_exchange(
                     comps["NH3"], rbs["NH3"], ra, temp, rh, receptors,
-                    [str(x) for x in surf["site"].values], opt).items()})
+                    [str(x) for x in surf["site"].values], opt, acid_ratio=acid).items()})
         return flat
 
 
@@ -436,6 +451,10 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                         out[f"rc_{path}"] = srt(comp[path], unit, label)
                     else:
                         out[f"rc_{g}_{path}"] = srt(comp[path], unit, f"{label} of {g}")
+            if "codeposition_used" in comp and opt.so2_codeposition:
+                out["so2_codeposition_used"] = srt(comp["codeposition_used"] & valid, "1",
+                                                   "SO2 non-stomatal resistance from the "
+                                                   "NH3/SO2 ratio (co-deposition)")
             if g == "HNO3":
                 out["rc_floor_used_HNO3"] = srt(comp["floor_used"] & valid, "1",
                                                 "HNO3 surface resistance raised to its floor")
@@ -452,7 +471,9 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                                                 "NH3 stomatal compensation point chi_s")
         # each distinct mode once, all of them in one call (shared surface terms); the
         # mass weight of each mode per site (docs/methods_dry.md, particle size split)
-        parts = {sp: _fractions.mode_weights(surf, sp, opt) for sp in opt.particles}
+        parts = {sp: _fractions.mode_weights(
+            surf, sp, opt, st(f"coarse_fraction_{sp}")[:, 0, :]
+            if f"coarse_fraction_{sp}" in block else None) for sp in opt.particles}
         modes = list(dict.fromkeys(mode for pp in parts.values() for mode, _ in pp[0]))
         # read the cached modes before storing new ones: storing may evict them
         found = {mode: _mode_lookup(cache, opt, mode) for mode in modes}
@@ -471,7 +492,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             weights, coarse, source = parts[sp]
             total = 0.0
             for mode, w in weights:
-                total = total + w[:, None, None] * by_mode[mode]
+                total = total + _fractions.broadcast_weight(w) * by_mode[mode]
             out[f"vd_{sp}"] = srt(total, "m s-1", f"mass-weighted dry deposition velocity of {sp} "
                                   "(Zhang et al. 2001)", coarse_fraction=coarse.tolist(),
                                   coarse_fraction_source=", ".join(
@@ -588,7 +609,7 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
                  "precipitation"):
         if name not in met:
             raise ValueError(f"met has no {name!r}; see docs/data_model.md")
-    aug = met[[v for v in MET_VARIABLES if v in met]]
+    aug = met[[v for v in MET_VARIABLES + AIR_DERIVED if v in met]]
     lazy = any(v.chunks is not None for v in aug.data_vars.values())
     if lazy:
         # the steps that look across hours, on the whole record (lazily); in memory
@@ -639,6 +660,8 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
     ds.attrs = {"gas_scheme": _gas.get_scheme(opt.gas_scheme).REFERENCE,
                 "particle_scheme": "Zhang et al. (2001), Atmos. Environ. 35, 549-560",
                 "nh3": NH3_NOTE, "wetness_rule": opt.wetness_rule,
+                "nh3_cuticle": _nh3.resolve_cuticle(opt.nh3_cuticle,
+                                                    _gas.get_scheme(opt.gas_scheme)),
                 "ustar_floor_m_s": opt.ustar_floor, "ra_cap_s_m": opt.ra_cap,
                 "blending_height_m": opt.blending_height,
                 "time_convention": "end of each hour, UTC"}

@@ -77,6 +77,9 @@ class CanopyState:
         Snow-covered fraction of the ground, 0-1 (NaN or None: no snow known). [1]
     hno3_rc_floor : bool
         Apply the HNO3 surface-resistance floor (:func:`nitric_acid_floor`).
+    nh3_so2_ratio : array_like or None
+        Molar ratio NH3/SO2 of the air in each hour (NaN unknown) for the SO2-NH3
+        co-deposition option; None: off (:mod:`workbench.drydep.codeposition`). [1]
     """
 
     land_use: tuple
@@ -92,6 +95,7 @@ class CanopyState:
     cos_zenith: object = None
     snow_cover: object = None
     hno3_rc_floor: bool = True
+    nh3_so2_ratio: object = None
 
 
 #: Least Rc of HNO3, max(10, -2 T[degC]) [s m-1], [s m-1 K-1]: Erisman, van Pul and

@@ -185,7 +185,7 @@ def net_flux(concentration, vd, emission):
 
 
 def hourly_exchange(nh3_paths, rb, ra, temperature, relative_humidity, receptors, sites,
-                    options) -> dict:
+                    options, acid_ratio=None) -> dict:
     """The compensation point model on the engine's arrays (site, receptor, time).
 
     Parameters
@@ -203,6 +203,8 @@ def hourly_exchange(nh3_paths, rb, ra, temperature, relative_humidity, receptors
         Along the receptor and site axes.
     options : workbench.drydep.DryOptions
         ``nh3_emission_potential`` and ``nh3_acid_ratio``.
+    acid_ratio : array_like, optional
+        Hourly acid ratio replacing ``nh3_acid_ratio`` (e.g. from the air). [-]
 
     Returns
     -------
@@ -213,9 +215,59 @@ def hourly_exchange(nh3_paths, rb, ra, temperature, relative_humidity, receptors
     gamma = np.stack([emission_potential(receptors, options.nh3_emission_potential, s)
                       for s in sites])[:, :, None]
     chi_s = stomatal_compensation_point(gamma, temperature)
-    r_w = cuticular_resistance(relative_humidity, options.nh3_acid_ratio)
+    r_w = cuticular_resistance(relative_humidity, options.nh3_acid_ratio
+                               if acid_ratio is None else acid_ratio)
     r_s = nh3_paths["stomatal"] + nh3_paths.get("mesophyll", 0.0)
     vd, emission = exchange(ra, rb, r_s, r_w, chi_s)
     leaves = np.array([r in VEGETATED for r in receptors])[None, :, None]
     vd = np.where(leaves, vd, 1.0 / (ra + rb + nh3_paths["rc"]))
     return {"vd": vd, "emission": np.where(leaves, emission, 0.0), "chi_s": chi_s + 0.0 * vd}
+
+
+#: Values of ``DryOptions.nh3_cuticle``.
+CUTICLE_RULES = ("auto", "scheme", "humidity")
+
+
+def resolve_cuticle(rule, scheme) -> str:
+    """``"humidity"`` or ``"scheme"``: the NH3 non-stomatal path in force.
+
+    ``"auto"`` takes the scheme module's ``NH3_CUTICLE`` (``"scheme"`` when it has
+    none): Wesely (1989) gives NH3 no treatment of its own (its H* and f0 in the
+    general formulas), so it takes the humidity-dependent cuticle; Zhang et al. (2003)
+    give NH3 the humidity-dependent cuticle of SO2 (alpha = 1), so its own stands.
+    """
+    if rule not in CUTICLE_RULES:
+        raise ValueError(f"unknown nh3_cuticle {rule!r}; use one of {CUTICLE_RULES}")
+    return getattr(scheme, "NH3_CUTICLE", "scheme") if rule == "auto" else rule
+
+
+def humidity_cuticle_rc(nh3_paths, relative_humidity, receptors,
+                        acid_ratio=DEFAULT_ACID_RATIO):
+    """Deposition-only Rc of NH3 with the humidity-dependent cuticle [s m-1].
+
+    R_c = 1/(1/R_s + 1/R_w) on receptors with leaves (:data:`VEGETATED`): the
+    scheme's stomatal (+ mesophyll) path beside the cuticle R_w of
+    :func:`cuticular_resistance` (Massad et al. 2010), i.e. the deposition velocity
+    of the compensation point model without its emission term; the scheme's R_c on
+    other receptors.
+
+    Parameters
+    ----------
+    nh3_paths : dict
+        The scheme's NH3 resistances (``rc``, ``stomatal``, optionally ``mesophyll``)
+        (site, receptor, time). [s m-1]
+    relative_humidity : numpy.ndarray
+        [1]
+    receptors : list of str
+        Along the receptor axis.
+    acid_ratio : float
+        (2 SO2 + HNO3)/NH3 molar. [-]
+    """
+    r_w = cuticular_resistance(relative_humidity, acid_ratio)
+    r_s = nh3_paths["stomatal"] + nh3_paths.get("mesophyll", 0.0)
+    with np.errstate(divide="ignore"):
+        g = where(np.isinf(r_s), 0.0, 1.0 / r_s) + 1.0 / r_w
+    rc = 1.0 / g
+    leaves = np.array([r in VEGETATED for r in receptors])[None, :, None]
+    return np.where(leaves & ~np.isnan(nh3_paths["rc"]), rc, nh3_paths["rc"])
+

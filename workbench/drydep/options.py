@@ -192,6 +192,11 @@ class DryOptions:
     nh3_acid_ratio : float
         Molar ratio (2 SO2 + HNO3)/NH3 of the cuticular resistance (Massad et al.
         2010); 1 by default (our choice). [-]
+    nh3_acid_ratio_from_air : bool
+        Take the acid ratio of the NH3 cuticle from the measured air in each hour,
+        (2 SO2 + HNO3)/NH3 of the sampling periods covering it
+        (:func:`workbench.drydep.codeposition.hourly_acid_ratio`); hours without all
+        three keep `nh3_acid_ratio`.  Off by default.
     rc_scale : dict
         gas -> multiplier of that gas's surface resistance Rc [1], applied to the
         scheme's Rc (either scheme, after the HNO3 floor) before Vd = 1/(Ra + Rb + k Rc);
@@ -201,6 +206,25 @@ class DryOptions:
         does not scale (only its leafless hours use the scaled Rc).
     components : bool
         Return every path of Rc per gas (memory: about seven arrays per gas).
+    nh3_cuticle : str
+        Non-stomatal path of the deposition-only NH3: ``"humidity"``, the cuticle R_w =
+        (31.5/AR) exp((100 - RH[%])/12) of Massad et al. (2010) beside the scheme's
+        stomatal path (the canopy model's Vd without its emission); ``"scheme"``, the
+        scheme's own paths; ``"auto"`` (default): humidity for wesely1989, which gives
+        NH3 no treatment of its own, the scheme's own for zhang2003 (NH3 takes SO2's
+        humidity-dependent cuticle).  docs/methods_dry.md section 9.
+    so2_codeposition : bool
+        SO2-NH3 co-deposition: over vegetated receptors the non-stomatal resistance of
+        SO2 falls with the hourly NH3/SO2 molar ratio of the measured air (Simpson et
+        al. 2012 after Fowler et al. 2001; Erisman et al. 1994 for the process; from
+        memory), either scheme; hours without both concentrations keep the scheme's
+        Rc.  Off by default (:mod:`workbench.drydep.codeposition`).
+    sampler_coarse_fraction : dict
+        ``{"<site>/<sampler_id>": {species: coarse fraction 0-1}}``: the coarse mass
+        fraction of a particle species measured by that sampler (e.g. a PM10 inlet
+        beside a total-suspended one), used in the hours its rows cover; it wins over
+        the site's ``coarse_fraction`` and the default rule
+        (:mod:`workbench.drydep.particle_fractions`).
     """
 
     gas_scheme: str = "wesely1989"
@@ -229,6 +253,10 @@ class DryOptions:
     compare_schemes: bool = False
     rc_scale: dict = field(default_factory=dict)
     components: bool = True
+    nh3_cuticle: str = "auto"
+    so2_codeposition: bool = False
+    nh3_acid_ratio_from_air: bool = False
+    sampler_coarse_fraction: dict = field(default_factory=dict)
 
     def __post_init__(self):
         if self.wetness_rule not in WETNESS_RULES:
@@ -259,6 +287,10 @@ class DryOptions:
                 raise ValueError(f"nh3_emission_potential: {key!r} = {value!r}; expected "
                                  "'<class>' or '<site>/<class>' of our land-use classes and "
                                  "a value >= 0")
+        from .nh3_bidirectional import CUTICLE_RULES
+        if self.nh3_cuticle not in CUTICLE_RULES:
+            raise ValueError(f"unknown nh3_cuticle {self.nh3_cuticle!r}; use one of "
+                             f"{CUTICLE_RULES}")
         if not self.nh3_acid_ratio > 0:
             raise ValueError("nh3_acid_ratio must be > 0")
         from ..species import AIR_GASES
@@ -266,6 +298,17 @@ class DryOptions:
             if gas not in AIR_GASES or isinstance(k, bool) or not float(k) > 0:
                 raise ValueError(f"rc_scale: {gas!r} = {k!r}; expected a gas of "
                                  f"{', '.join(AIR_GASES)} and a multiplier > 0")
+        for key, table in self.sampler_coarse_fraction.items():
+            if "/" not in str(key) or not isinstance(table, dict) or not table:
+                raise ValueError(f"sampler_coarse_fraction: {key!r} = {table!r}; expected "
+                                 "'<site>/<sampler_id>' = {species = fraction}")
+            for sp, f in table.items():
+                if sp not in default_particle_modes() or isinstance(f, bool) or \
+                        not 0.0 <= float(f) <= 1.0:
+                    raise ValueError(f"sampler_coarse_fraction: {key!r}: {sp!r} = {f!r}; "
+                                     "expected a particle species of "
+                                     f"{', '.join(default_particle_modes())} and a fraction "
+                                     "0-1")
         sc = self.seasonal_category
         if sc is not None:
             cats = [sc] if isinstance(sc, int) else list(sc)

@@ -29,6 +29,7 @@ import xarray as xr
 from ..constants import ZERO_CELSIUS
 from ..species import get as _species
 from ..surface._array import is_xarray, where
+from . import codeposition
 from .gas import HNO3_RC_COLD_SLOPE, HNO3_RC_FLOOR, nitric_acid_floor  # noqa: F401
 
 NAME = "wesely1989"
@@ -43,6 +44,9 @@ PATH_NAMES = {"convection": "in-canopy buoyant convection resistance r_dc",
               "canopy_transfer": "in-canopy aerodynamic transfer resistance r_ac"}
 #: Wesely (1989) publishes no dew rule: dew by the humidity at air temperature.
 DEW_RULE = "air_temperature"
+#: NH3 has no path of its own in Wesely (1989): ``nh3_cuticle = "auto"`` gives it the
+#: humidity-dependent cuticle (:func:`workbench.drydep.nh3_bidirectional.resolve_cuticle`).
+NH3_CUTICLE = "humidity"
 
 _X = np.inf  # Wesely's 9999: the path does not exist
 #: Wesely's land-use types (Table 1 columns): 1 urban, 2 agricultural, 3 range,
@@ -564,7 +568,11 @@ def surface_resistances(gases, state) -> dict:
             floor_used = rc < floor
             rc = where(floor_used, floor, rc)
         rc = rc + nan_rc
+        if gas == "SO2" and state.nh3_so2_ratio is not None:  # co-deposition option
+            rc, codep = codeposition.surface_resistance(_recip(rs + rm), rc, state)
         out[gas] = {"rc": rc, "stomatal": rs, "mesophyll": rm + 0.0 * t, "upper_canopy": rlu,
                     "convection": rdc, "lower_canopy": rcl, "canopy_transfer": rac + 0.0 * t,
                     "ground": rgs, "floor_used": floor_used}
+        if gas == "SO2" and state.nh3_so2_ratio is not None:
+            out[gas]["codeposition_used"] = codep
     return out

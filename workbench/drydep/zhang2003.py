@@ -32,6 +32,7 @@ from ..constants import ZERO_CELSIUS
 from ..species import get as _species
 from ..surface._array import is_xarray, where
 from ..surface.air import saturation_vapour_pressure
+from . import codeposition
 from .gas import nitric_acid_floor
 
 NAME = "zhang2003"
@@ -517,7 +518,13 @@ def surface_resistances(gases, state) -> dict:
             floor = nitric_acid_floor(state.temperature)
             floor_used = rc < floor
             rc = where(floor_used, floor, rc)
-        out[gas] = {"rc": rc + nan, "stomatal": rst, "mesophyll": rm, "cuticle": rcut,
+        rc = rc + nan
+        if gas == "SO2" and state.nh3_so2_ratio is not None:  # co-deposition option
+            rc, codep = codeposition.surface_resistance((1.0 - wst) * _recip(rst + rm), rc,
+                                                        state)
+        out[gas] = {"rc": rc, "stomatal": rst, "mesophyll": rm, "cuticle": rcut,
                     "canopy_transfer": rac + zero, "ground": rg,
                     "stomatal_blocking": wst + zero, "floor_used": floor_used}
+        if gas == "SO2" and state.nh3_so2_ratio is not None:
+            out[gas]["codeposition_used"] = codep
     return out
