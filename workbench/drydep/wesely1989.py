@@ -43,6 +43,8 @@ PATH_NAMES = {"convection": "in-canopy buoyant convection resistance r_dc",
               "canopy_transfer": "in-canopy aerodynamic transfer resistance r_ac"}
 #: Wesely (1989) publishes no dew rule: dew by the humidity at air temperature.
 DEW_RULE = "air_temperature"
+#: The same equations arranged for numpy input (see :mod:`workbench.drydep.gas`).
+NUMPY_PATH = "workbench.drydep.wesely1989_numpy"
 
 _X = np.inf  # Wesely's 9999: the path does not exist
 #: Wesely's land-use types (Table 1 columns): 1 urban, 2 agricultural, 3 range,
@@ -168,12 +170,33 @@ def _recip(r):
         Conductance. [m s-1]
     """
     if isinstance(r, np.ndarray) and r.ndim:
-        out = 1.0 / np.maximum(r, _R_TINY)
-        zero = r == 0
-        if zero.any():
-            out[zero] = np.inf
-        return out
+        return _recip_array(r)
     return where(r == 0, np.inf, 1.0 / np.maximum(r, _R_TINY))
+
+
+def _recip_array(r, out=None):
+    """:func:`_recip` of a numpy array, into `out` when given (`out` may be `r`).
+
+    When no value is below :data:`_R_TINY` (NaN aside), 1/max(r, tiny) is 1/r: one
+    division and a minimum instead of a maximum, a division and a zero mask.
+
+    Parameters
+    ----------
+    r : numpy.ndarray
+        Resistance, >= 0 or NaN. [s m-1]
+    out : numpy.ndarray, optional
+
+    Returns
+    -------
+    numpy.ndarray
+        Conductance. [m s-1]
+    """
+    if r.size and np.fmin.reduce(r, axis=None) >= _R_TINY:  # fmin skips NaN
+        return np.divide(1.0, r, out=out)
+    zero = r == 0
+    out = np.divide(1.0, np.maximum(r, _R_TINY, out=out), out=out)
+    out[zero] = np.inf
+    return out
 
 
 def _nan_where(*inputs):
@@ -568,3 +591,4 @@ def surface_resistances(gases, state) -> dict:
                     "convection": rdc, "lower_canopy": rcl, "canopy_transfer": rac + 0.0 * t,
                     "ground": rgs, "floor_used": floor_used}
     return out
+
