@@ -157,10 +157,16 @@ def _random_state(seed, n=400, bad_category=False):
     return CanopyState(rec, cat, solar, temp, kind, np.array([0.0, 4.0, 10.0])[:, None, None])
 
 
-@pytest.mark.parametrize("seed", [3, 4])
-def test_numpy_path_equals_the_general_path(seed):
-    """wesely1989_numpy (what the engine runs on numpy) against the general path, every path."""
+@pytest.mark.parametrize("seed,block", [(3, None), (4, None), (4, 500)])
+def test_numpy_path_equals_the_general_path(seed, block, monkeypatch):
+    """wesely1989_numpy (what the engine runs on numpy) against the general path, every path.
+
+    With ``block`` the numpy path runs in blocks of that many elements (as on large arrays).
+    """
     from workbench.drydep import wesely1989_numpy as fast
+    from workbench.surface import _array
+    if block:
+        monkeypatch.setattr(_array, "BLOCK_ELEMENTS", block)
     st = _random_state(seed, bad_category=seed == 4)
     gases = ("SO2", "HNO3", "NH3", "NO2", "O3")
     want = w.surface_resistances(gases, st)

@@ -26,7 +26,7 @@ import numpy as np
 import xarray as xr
 
 from ..constants import BOLTZMANN, GRAVITY, WATER_DENSITY
-from ..surface._array import is_xarray, where
+from ..surface._array import aligned, block_of, block_slices, is_xarray, where
 from ..surface.air import dynamic_viscosity, kinematic_viscosity, mean_free_path
 # the constants, table and nodes of the scheme live in zhang_tables (shared with the
 # numpy fast path, which this module imports: imports go one way); re-exported here
@@ -34,6 +34,10 @@ from .particles_numpy import ZhangSurface
 from .zhang_tables import (_ROW, _SLIP_EXP_MIN, EPSILON_0, GERBER, GROWTH_RH_MAX,  # noqa: F401
                            KAPPA, M_PER_CM, M_PER_MM, SLIP_A, SLIP_B, SLIP_C, ZHANG_LUC, _hermgauss,
                            _luc_table, _rows, lognormal_nodes)
+
+#: Elements per block of :func:`mass_weighted_velocities` (256 kB per array, so that
+#: the dozen work arrays of a block stay in the processor's cache).
+BLOCK_ELEMENTS = 32768
 
 
 def slip_correction(diameter, temperature, pressure):
@@ -392,75 +396,18 @@ def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, p
     land = land_use if isinstance(land_use, str) else np.asarray(land_use, dtype=object)
     shape = np.broadcast_shapes(*(a.shape for a in arrays),
                                 () if isinstance(land, str) else land.shape)
-    blocks = list(block_slices(shape))
+    blocks = list(block_slices(shape, BLOCK_ELEMENTS))
     if len(blocks) == 1:
         surface = ZhangSurface(*arrays[:5], land, *arrays[5:])
         return [surface.mass_weighted(mode, nodes) for mode in modes]
-    def aligned(a):  # leading axes of length 1, so that blocks index the same axes
-        return a.reshape((1,) * (len(shape) - a.ndim) + a.shape)
-    arrays = [aligned(a) for a in arrays]
-    land = land if isinstance(land, str) else aligned(land)
+    arrays = [aligned(a, len(shape)) for a in arrays]
+    land = land if isinstance(land, str) else aligned(land, len(shape))
     out = [np.empty(shape) for _ in modes]
     for block in blocks:  # element-wise: the same numbers as one call on everything
-        part = [_block_of(a, block) for a in arrays]
+        part = [block_of(a, block) for a in arrays]
         surface = ZhangSurface(*part[:5], land if isinstance(land, str)
-                               else _block_of(land, block), *part[5:])
+                               else block_of(land, block), *part[5:])
         for vd, mode in zip(out, modes):
             vd[block] = surface.mass_weighted(mode, nodes)
     return out
 
-
-#: Elements per block of :func:`mass_weighted_velocities` (256 kB per array, so
-#: that the dozen work arrays of a block stay in the processor's cache).
-BLOCK_ELEMENTS = 32768
-
-
-def block_slices(shape, size=None):
-    """Index tuples that cut an array of `shape` into blocks of about `size` elements.
-
-    Blocks run along the first axis (sites) and the last (hours); the axes between
-    are kept whole.
-
-    Parameters
-    ----------
-    shape : tuple of int
-    size : int, optional
-        Target elements per block (default :data:`BLOCK_ELEMENTS`). [-]
-
-    Returns
-    -------
-    iterator of tuple of slice
-        One tuple per block (a single block, ``(...,)``, for small or 0-d shapes).
-
-    >>> list(block_slices((2, 3, 4), size=12))
-    [(slice(0, 1, None), Ellipsis, slice(0, 4, None)), (slice(1, 2, None), Ellipsis, slice(0, 4, None))]
-    """
-    size = size or BLOCK_ELEMENTS
-    n = int(np.prod(shape)) if shape else 1
-    if len(shape) == 0 or n <= size:
-        yield (Ellipsis,)
-        return
-    if len(shape) == 1:
-        for i in range(0, shape[0], size):
-            yield (slice(i, i + size),)
-        return
-    inner = int(np.prod(shape[1:-1]))
-    nt = min(shape[-1], max(1, size // max(inner, 1)))
-    ns = max(1, size // max(inner * nt, 1))
-    for i in range(0, shape[0], ns):
-        for j in range(0, shape[-1], nt):
-            yield (slice(i, i + ns), Ellipsis, slice(j, j + nt))
-
-
-def _block_of(a, block):
-    """The part of `a` (broadcastable to the blocked shape) that a block reads.
-
-    Axes of length 1 (broadcast) are kept whole; 0-d input is returned as it is.
-    """
-    if a.ndim == 0 or block == (Ellipsis,):
-        return a
-    first, _, last = block if len(block) == 3 else (block[0], None, None)
-    index = [first if a.shape[0] > 1 else slice(None)] + [slice(None)] * (a.ndim - 1)
-    if last is not None and a.ndim > 1:
-        index[-1] = last if a.shape[-1] > 1 else slice(None)
-    return a[tuple(index)]

@@ -27,7 +27,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..species import get as _species
-from ..surface._array import where
+from ..surface._array import blockwise, where
 from .gas import nitric_acid_floor
 from .wesely1989 import (N_CATEGORIES, TABLE, _exposed, _exposed_conductances, _recip_array,
                          _rows, _wet_cuticle, _wet_upper_canopy, cold_increment,
@@ -81,52 +81,62 @@ def surface_resistances(gases, state) -> dict:
     cat = np.asarray(state.seasonal_category, dtype=float)
     kind = np.asarray(state.wet_kind, dtype=float)
     valid = np.isfinite(cat)
-    all_valid = bool(valid.all())
     col = (np.where(valid, cat, 1.0) - 1.0).astype(int)
     if np.any((col < -N_CATEGORIES) | (col >= N_CATEGORIES)):  # as table_values
         raise IndexError(f"seasonal category outside 1-{N_CATEGORIES}")
     col = np.where(valid, col % N_CATEGORIES, N_CATEGORIES)
-    cell = np.asarray(_rows(state.land_use)) * (N_CATEGORIES + 1) + col  # (type, category)
-    shape = np.broadcast_shapes(cell.shape, t.shape, sun.shape, kind.shape)
-    cell = np.broadcast_to(cell, shape)
-    # wetness 0 dry (kind <= 0), 1 dew, 2 rain (other kind > 0), 3 unknown
-    wet_cell = np.where(kind > 0, np.where(kind == 1, 1, 2), np.where(np.isnan(kind), 3, 0))
-    wet_cell = wet_cell * _TABLE_NAN["rlu"].size + cell
-    bad = np.isnan(t) | np.isnan(sun) | np.isnan(kind) | np.isnan(cat)
-    cold = cold_increment(t)
-    light_temp = stomatal_resistance(1.0, sun, t)  # r_s / r_i (inf: closed; NaN)
-    ri = _TABLE_NAN["ri"].ravel().take(cell)
-    rdc = convection_resistance(sun, state.terrain_slope)
-    rac = _TABLE_NAN["rac"].ravel().take(cell)
-    transfer = rac + 0.0 * t
-    work = np.empty(shape)
-    out = {}
+    rows = np.asarray(_rows(state.land_use))
+    floor_on = getattr(state, "hno3_rc_floor", True)
+    per_gas = [(gas, h, f0, _gas_tables(gas, h, f0)) for gas, (h, f0) in species.items()]
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-        for gas, (h, f0) in species.items():
-            rlu_t, rcl_t, rgs_t = _gas_tables(gas, h, f0)
-            rm = mesophyll_resistance(h, f0)
-            rs = np.multiply(ri, light_temp * diffusivity_ratio(gas))
-            if not all_valid:  # closed stomata: inf whatever the table value
-                np.copyto(rs, np.inf, where=np.isinf(light_temp))
-            g = np.add(rs, rm)
-            g = _recip_array(g, out=g)
-            rlu = rlu_t.take(wet_cell)
-            rlu += cold
-            g += _recip_array(rlu, out=work)
-            rcl = rcl_t.take(cell)
-            rcl += cold
-            g += _recip_array(np.add(rdc, rcl, out=work), out=work)
-            rgs = rgs_t.take(cell)
-            rgs += cold
-            g += _recip_array(np.add(rac, rgs, out=work), out=work)
-            rc = _recip_array(g, out=g)
-            floor_used = np.zeros(shape, dtype=bool)
-            if gas == "HNO3" and getattr(state, "hno3_rc_floor", True):
-                floor = nitric_acid_floor(t)
-                floor_used = rc < floor
-                rc = where(floor_used, floor, rc)
-            np.copyto(rc, np.nan, where=bad)
-            out[gas] = {"rc": rc, "stomatal": rs, "mesophyll": rm + 0.0 * t,
-                        "upper_canopy": rlu, "convection": rdc, "lower_canopy": rcl,
-                        "canopy_transfer": transfer, "ground": rgs, "floor_used": floor_used}
+        cold = cold_increment(t)
+        light_temp = stomatal_resistance(1.0, sun, t)  # r_s / r_i (inf: closed; NaN)
+        rdc = convection_resistance(sun, state.terrain_slope)
+
+        def cells(rows, col, kind, t, sun, cat, cold, light_temp, rdc):
+            # every hourly path of every gas for one block (element-wise)
+            cell = rows * (N_CATEGORIES + 1) + col  # (type, category)
+            shape = np.broadcast_shapes(cell.shape, kind.shape, t.shape, sun.shape, cat.shape)
+            cell = np.broadcast_to(cell, shape)
+            # wetness 0 dry (kind <= 0), 1 dew, 2 rain (other kind > 0), 3 unknown
+            wet_cell = np.where(kind > 0, np.where(kind == 1, 1, 2), np.where(np.isnan(kind), 3, 0))
+            wet_cell = wet_cell * _TABLE_NAN["rlu"].size + cell
+            bad = np.isnan(t) | np.isnan(sun) | np.isnan(kind) | np.isnan(cat)
+            ri = _TABLE_NAN["ri"].ravel().take(cell)
+            rac = _TABLE_NAN["rac"].ravel().take(cell)
+            closed = None if col.max(initial=0) < N_CATEGORIES else np.isinf(light_temp)
+            work = np.empty(shape)
+            out = [rac + 0.0 * t]
+            for gas, h, f0, (rlu_t, rcl_t, rgs_t) in per_gas:
+                rs = np.multiply(ri, light_temp * diffusivity_ratio(gas))
+                if closed is not None:  # closed stomata: inf whatever the table value
+                    np.copyto(rs, np.inf, where=closed)
+                g = np.add(rs, mesophyll_resistance(h, f0))
+                g = _recip_array(g, out=g)
+                rlu = rlu_t.take(wet_cell)
+                rlu += cold
+                g += _recip_array(rlu, out=work)
+                rcl = rcl_t.take(cell)
+                rcl += cold
+                g += _recip_array(np.add(rdc, rcl, out=work), out=work)
+                rgs = rgs_t.take(cell)
+                rgs += cold
+                g += _recip_array(np.add(rac, rgs, out=work), out=work)
+                rc = _recip_array(g, out=g)
+                floor_used = np.zeros(shape, dtype=bool)
+                if gas == "HNO3" and floor_on:
+                    floor = nitric_acid_floor(t)
+                    floor_used = rc < floor
+                    rc = where(floor_used, floor, rc)
+                np.copyto(rc, np.nan, where=bad)
+                out += [rc, rs, rlu, rcl, rgs, floor_used]
+            return tuple(out)
+
+        parts = blockwise(cells, rows, col, kind, t, sun, cat, cold, light_temp, rdc)
+    out = {}
+    for k, (gas, h, f0, _) in enumerate(per_gas):
+        rc, rs, rlu, rcl, rgs, floor_used = parts[1 + 6 * k: 7 + 6 * k]
+        out[gas] = {"rc": rc, "stomatal": rs, "mesophyll": mesophyll_resistance(h, f0) + 0.0 * t,
+                    "upper_canopy": rlu, "convection": rdc, "lower_canopy": rcl,
+                    "canopy_transfer": parts[0], "ground": rgs, "floor_used": floor_used}
     return out
