@@ -386,10 +386,13 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     out = {}
     land = rec(np.array(receptors, dtype=object))
     def gas_parts():
+        reads = getattr(scheme, "READS", ("lai", "cos_zenith"))  # LAI and sun when read
         state = _gas.CanopyState(
             land, cat, k_down, temp, kind, site("terrain_slope"), us_r,
-            lai=_canopy.hourly_lai(surf, receptors, block["time"].values),
-            relative_humidity=rh, cos_zenith=_canopy.cos_zenith(block["time"].values, site),
+            lai=(_canopy.hourly_lai(surf, receptors, block["time"].values)
+                 if "lai" in reads else None),
+            relative_humidity=rh, cos_zenith=(_canopy.cos_zenith(block["time"].values, site)
+                                              if "cos_zenith" in reads else None),
             snow_cover=snow, hno3_rc_floor=opt.hno3_rc_floor)
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
             comps = _gas.surface_resistances(scheme, opt.gases, state)
@@ -554,7 +557,8 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
     """
     opt = options or DryOptions()
     _gas.get_scheme(opt.gas_scheme)
-    met_surf = surfaces.sel(site=met["site"].values)
+    met_surf = (surfaces if np.array_equal(surfaces["site"].values, met["site"].values)
+                else surfaces.sel(site=met["site"].values))
     every = [str(r) for r in met_surf["receptor"].values]
     for r in every:
         landuse.check(r)
@@ -607,14 +611,20 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
               "n_ra_height_raised": "ra_height_raised"}
     if "rc_floor_used_HNO3" in hourly:
         counts["n_hno3_rc_floor"] = "rc_floor_used_HNO3"
+    def hours(v, long_name):  # hours counted over time (numpy sums in memory)
+        dims = tuple(d for d in v.dims if d != "time")
+        attrs = {"units": "1", "long_name": f"hours counted: {long_name}"}
+        if lazy:
+            return xr.Variable(dims, v.sum("time").data, attrs)
+        return xr.Variable(dims, np.sum(v.values, axis=v.dims.index("time")), attrs)
     for name, flag in counts.items():
         v = hourly.variables[flag]
-        extra[name] = v.sum("time")
-        extra[name].attrs = {"units": "1", "long_name": f"hours counted: {v.attrs['long_name']}"}
-    extra["n_cloud_default"] = (hourly.variables["cloud_cover_source"] == 2).sum("time")
-    extra["n_cloud_default"].attrs = {"units": "1", "long_name": "hours counted: cloud cover "
-                                      "from the night_cloud_cover option"}
-    ds = hourly.assign(extra)
+        extra[name] = hours(v, v.attrs["long_name"])
+    extra["n_cloud_default"] = hours(hourly.variables["cloud_cover_source"] == 2,
+                                     "cloud cover from the night_cloud_cover option")
+    # one constructor call (the hourly Variables, the counts and the coordinates as
+    # they are), not an assign, which merges and aligns
+    ds = xr.Dataset({**hourly.data_vars.variables, **extra}, coords=hourly.coords)
     ds.attrs = {"gas_scheme": _gas.get_scheme(opt.gas_scheme).REFERENCE,
                 "particle_scheme": "Zhang et al. (2001), Atmos. Environ. 35, 549-560",
                 "nh3": NH3_NOTE, "wetness_rule": opt.wetness_rule,

@@ -18,6 +18,9 @@ A scheme is a module with
 * optionally ``SHARED_PATHS`` (the paths that do not depend on the gas, written once),
   ``PATH_NAMES`` (path -> long name) and ``DEW_RULE`` (the dew rule the scheme
   publishes, see :mod:`workbench.drydep.wetness`).
+* optionally ``READS``: the optional :class:`CanopyState` fields the scheme reads
+  (default: all); :func:`workbench.drydep.velocities` computes the hourly ``lai`` and
+  ``cos_zenith`` only for a scheme that reads them (None otherwise).
 * optionally ``NUMPY_PATH``: the module path of the same equations arranged for
   plain numpy input (a ``surface_resistances(gases, state)`` of its own, equal to the
   scheme's to rounding); :func:`surface_resistances` uses it when no array of the

@@ -45,6 +45,8 @@ PATH_NAMES = {"convection": "in-canopy buoyant convection resistance r_dc",
 DEW_RULE = "air_temperature"
 #: The same equations arranged for numpy input (see :mod:`workbench.drydep.gas`).
 NUMPY_PATH = "workbench.drydep.wesely1989_numpy"
+#: Optional fields of the canopy state read (no LAI, no solar zenith angle).
+READS = ("terrain_slope", "hno3_rc_floor")
 
 _X = np.inf  # Wesely's 9999: the path does not exist
 #: Wesely's land-use types (Table 1 columns): 1 urban, 2 agricultural, 3 range,
