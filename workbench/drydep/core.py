@@ -149,7 +149,8 @@ def _stage(cache, stage: str, key, compute):
 
 
 def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: list,
-            cache: dict | None = None, met_surf: xr.Dataset | None = None) -> xr.Dataset:
+            cache: dict | None = None, met_surf: xr.Dataset | None = None,
+            summaries: bool = False) -> xr.Dataset:
     """All hourly quantities for one in-memory block of the met Dataset.
 
     Parameters
@@ -168,6 +169,9 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     met_surf : xarray.Dataset, optional
         Every receptor surface of the sites (default `surf`), for the surface around
         the wind mast when `surf` holds only some receptors.
+    summaries : bool
+        Add the (site, receptor) summaries of :func:`_summaries` (when `block` is the
+        whole record).
 
     Returns
     -------
@@ -502,7 +506,52 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                                   "pressure missing: standard atmosphere at the site elevation"),
         "night": sto(night, "1", "stable (night) branch of the surface layer"),
     }
-    return xr.Dataset({**base, **out}, coords=coords)
+    variables = {**base, **out}
+    if summaries:  # the whole record is here: its counts too, in the same constructor call
+        variables.update(_summaries(variables, surf, receptors, opt))
+    return xr.Dataset(variables, coords=coords)
+
+
+def _summaries(variables, surf, receptors, opt) -> dict:
+    """The (site, receptor) Variables of :func:`velocities`: d and the hours counted.
+
+    Parameters
+    ----------
+    variables : mapping of str to xarray.Variable
+        The hourly Variables of the whole record (numpy or dask-backed).
+    surf : xarray.Dataset
+    receptors : list of str
+    opt : DryOptions
+
+    Returns
+    -------
+    dict
+        ``displacement_height`` [m], ``active`` [1] and the ``n_*`` counts [1].
+    """
+    _, d_r = _receptor_roughness(surf, receptors, opt)
+    extra = {
+        "displacement_height": xr.Variable(("site", "receptor"), d_r,
+                                           {"units": "m", "long_name": "displacement height"}),
+        "active": xr.Variable(("site", "receptor"), surf["active"].values,
+                              {"units": "1", "long_name": "the site wants this receptor"})}
+    counts = {"n_ustar_floor": "ustar_floor_used", "n_ra_cap": "ra_cap_used",
+              "n_theta_star_limited": "theta_star_limited", "n_pressure_estimated": "pressure_estimated",
+              "n_ra_height_raised": "ra_height_raised"}
+    if "rc_floor_used_HNO3" in variables:
+        counts["n_hno3_rc_floor"] = "rc_floor_used_HNO3"
+
+    def hours(v, long_name):  # hours counted over time (numpy sums in memory)
+        dims = tuple(d for d in v.dims if d != "time")
+        attrs = {"units": "1", "long_name": f"hours counted: {long_name}"}
+        if v.chunks is not None:
+            return xr.Variable(dims, v.sum("time").data, attrs)
+        return xr.Variable(dims, np.sum(v.values, axis=v.dims.index("time")), attrs)
+    for name, flag in counts.items():
+        v = variables[flag]
+        extra[name] = hours(v, v.attrs["long_name"])
+    extra["n_cloud_default"] = hours(variables["cloud_cover_source"] == 2,
+                                     "cloud cover from the night_cloud_cover option")
+    return extra
 
 
 def _template(aug, surf, opt, receptors, met_surf=None):
@@ -598,33 +647,13 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
                                                      "met_surf": met_surf},
                                template=_template(aug, surf, opt, receptors, met_surf))
     else:
-        hourly = _hourly(aug, surf, opt, receptors, cache, met_surf)
-    _, d_r = _receptor_roughness(surf, receptors, opt)
-    # Variables, added in one step (numpy sums in memory, dask sums when lazy)
-    extra = {
-        "displacement_height": xr.Variable(("site", "receptor"), d_r,
-                                           {"units": "m", "long_name": "displacement height"}),
-        "active": xr.Variable(("site", "receptor"), surf["active"].values,
-                              {"units": "1", "long_name": "the site wants this receptor"})}
-    counts = {"n_ustar_floor": "ustar_floor_used", "n_ra_cap": "ra_cap_used",
-              "n_theta_star_limited": "theta_star_limited", "n_pressure_estimated": "pressure_estimated",
-              "n_ra_height_raised": "ra_height_raised"}
-    if "rc_floor_used_HNO3" in hourly:
-        counts["n_hno3_rc_floor"] = "rc_floor_used_HNO3"
-    def hours(v, long_name):  # hours counted over time (numpy sums in memory)
-        dims = tuple(d for d in v.dims if d != "time")
-        attrs = {"units": "1", "long_name": f"hours counted: {long_name}"}
-        if lazy:
-            return xr.Variable(dims, v.sum("time").data, attrs)
-        return xr.Variable(dims, np.sum(v.values, axis=v.dims.index("time")), attrs)
-    for name, flag in counts.items():
-        v = hourly.variables[flag]
-        extra[name] = hours(v, v.attrs["long_name"])
-    extra["n_cloud_default"] = hours(hourly.variables["cloud_cover_source"] == 2,
-                                     "cloud cover from the night_cloud_cover option")
-    # one constructor call (the hourly Variables, the counts and the coordinates as
-    # they are), not an assign, which merges and aligns
-    ds = xr.Dataset({**hourly.data_vars.variables, **extra}, coords=hourly.coords)
+        hourly = _hourly(aug, surf, opt, receptors, cache, met_surf, summaries=True)
+    if lazy:  # the summaries over the whole record, then one constructor call
+        ds = xr.Dataset({**hourly.data_vars.variables,
+                         **_summaries(hourly.variables, surf, receptors, opt)},
+                        coords=hourly.coords)
+    else:
+        ds = hourly
     ds.attrs = {"gas_scheme": _gas.get_scheme(opt.gas_scheme).REFERENCE,
                 "particle_scheme": "Zhang et al. (2001), Atmos. Environ. 35, 549-560",
                 "nh3": NH3_NOTE, "wetness_rule": opt.wetness_rule,
