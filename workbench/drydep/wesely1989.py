@@ -534,6 +534,18 @@ def surface_resistance(gas: str, state) -> dict:
     return surface_resistances((gas,), state)[gas]
 
 
+def henry_and_reactivity(gases) -> dict:
+    """H* [M atm-1] and f0 [-] of each gas from the species table (an error if missing)."""
+    species = {}
+    for gas in gases:
+        sp = _species(gas)
+        if sp.henry_eff is None or sp.reactivity is None:
+            raise ValueError(f"{gas}: no effective Henry constant or reactivity in the species "
+                             "table")
+        species[gas] = (sp.henry_eff, sp.reactivity)
+    return species
+
+
 def surface_resistances(gases, state) -> dict:
     """:func:`surface_resistance` of several gases over the same canopy [s m-1].
 
@@ -551,13 +563,7 @@ def surface_resistances(gases, state) -> dict:
     dict
         gas -> the dict of :func:`surface_resistance` (resistances [s m-1]).
     """
-    species = {}
-    for gas in gases:
-        sp = _species(gas)
-        if sp.henry_eff is None or sp.reactivity is None:
-            raise ValueError(f"{gas}: no effective Henry constant or reactivity in the species "
-                             "table")
-        species[gas] = (sp.henry_eff, sp.reactivity)
+    species = henry_and_reactivity(gases)
     t = state.temperature
     kind = state.wet_kind
     tab = table_values(state.land_use, state.seasonal_category, state.receptor_dim)

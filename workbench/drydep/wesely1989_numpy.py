@@ -26,13 +26,12 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..species import get as _species
 from ..surface._array import blockwise, where
 from .gas import nitric_acid_floor
 from .wesely1989 import (N_CATEGORIES, TABLE, _exposed, _exposed_conductances, _recip_array,
                          _rows, _wet_cuticle, _wet_upper_canopy, cold_increment,
-                         convection_resistance, diffusivity_ratio, mesophyll_resistance,
-                         stomatal_resistance, upper_canopy_resistance)
+                         convection_resistance, diffusivity_ratio, henry_and_reactivity,
+                         mesophyll_resistance, stomatal_resistance, upper_canopy_resistance)
 #: :data:`TABLE` with a sixth, NaN column for an unknown seasonal category [s m-1].
 _TABLE_NAN = {p: np.concatenate([t, np.full((len(t), 1), np.nan)], axis=1)
               for p, t in TABLE.items()}
@@ -69,13 +68,7 @@ def surface_resistances(gases, state) -> dict:
     dict
         As :func:`surface_resistances` [s m-1].
     """
-    species = {}
-    for gas in gases:
-        sp = _species(gas)
-        if sp.henry_eff is None or sp.reactivity is None:
-            raise ValueError(f"{gas}: no effective Henry constant or reactivity in the species "
-                             "table")
-        species[gas] = (sp.henry_eff, sp.reactivity)
+    species = henry_and_reactivity(gases)
     t = np.asarray(state.temperature, dtype=float)
     sun = np.asarray(state.solar_radiation, dtype=float)
     cat = np.asarray(state.seasonal_category, dtype=float)
