@@ -357,7 +357,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     (cat, cat_src, wet, kind, wet_src) = (sw[k] for k in _STATE_OUT)
 
     # --- 6. gases and particles ---------------------------------------------------------------
-    coords = {"site": block["site"].values, "receptor": receptors, "time": block["time"].values}
+    coords = _coordinates(block, receptors)
     shape3 = (n_s, n_r, n_t)
 
     # plain Variables here, coordinates once at the end (a DataArray each cost ~2 ms)
@@ -510,6 +510,22 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     if summaries:  # the whole record is here: its counts too, in the same constructor call
         variables.update(_summaries(variables, surf, receptors, opt))
     return xr.Dataset(variables, coords=coords)
+
+
+def _coordinates(block, receptors):
+    """Coordinates (site, receptor, time) of the result, reusing the block's indexes.
+
+    Building the pandas index of the hours again costs more than the rest of the
+    Dataset construction of a site-year; the block's own index is the same.
+    """
+    if not {"site", "time"} <= set(block.xindexes):
+        return {"site": block["site"].values, "receptor": receptors, "time": block["time"].values}
+    rec = xr.Coordinates({"receptor": receptors})
+    return xr.Coordinates(
+        {"site": block.variables["site"], "receptor": rec.variables["receptor"],
+         "time": block.variables["time"]},
+        indexes={"site": block.xindexes["site"], "receptor": rec.xindexes["receptor"],
+                 "time": block.xindexes["time"]})
 
 
 def _summaries(variables, surf, receptors, opt) -> dict:
