@@ -188,4 +188,12 @@ def test_scheme_registry_takes_the_numpy_path_for_numpy_only():
     np.testing.assert_allclose(via, w.surface_resistances(("SO2",), st)["SO2"]["rc"],
                                rtol=1e-14)
     assert gas._plain_numpy(st)
+    for one in (CanopyState("grass", 1.0, 500.0, 290.0, 0.0),  # scalars and 1-d input
+                CanopyState(("grass", "water"), np.array([1.0, np.nan]), 10.0, 260.0,
+                            np.array([2.0, 1.0]))):
+        got = gas.surface_resistances(w, ("SO2", "HNO3"), one)
+        want = w.surface_resistances(("SO2", "HNO3"), one)
+        for g in got:
+            assert np.shape(got[g]["rc"]) == np.shape(want[g]["rc"])
+            np.testing.assert_allclose(got[g]["rc"], want[g]["rc"], rtol=1e-14)
     assert not gas._plain_numpy(CanopyState(("grass",), xr.DataArray([1.0]), 500.0, 290.0, 0.0))

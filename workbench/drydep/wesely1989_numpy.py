@@ -28,6 +28,7 @@ import numpy as np
 
 from ..surface._array import blockwise, where
 from .gas import nitric_acid_floor
+from .wesely1989 import surface_resistances as _general
 from .wesely1989 import (N_CATEGORIES, TABLE, _exposed, _exposed_conductances, _recip_array,
                          _rows, _wet_cuticle, _wet_upper_canopy, cold_increment,
                          convection_resistance, diffusivity_ratio, henry_and_reactivity,
@@ -69,6 +70,10 @@ def surface_resistances(gases, state) -> dict:
         As :func:`surface_resistances` [s m-1].
     """
     species = henry_and_reactivity(gases)
+    arrays = [np.asarray(a) for a in (state.temperature, state.solar_radiation,
+                                      state.seasonal_category, state.wet_kind)]
+    if not any(a.ndim for a in arrays) and np.ndim(_rows(state.land_use)) == 0:
+        return _general(gases, state)  # scalars: nothing to gain, numpy scalars are no arrays
     t = np.asarray(state.temperature, dtype=float)
     sun = np.asarray(state.solar_radiation, dtype=float)
     cat = np.asarray(state.seasonal_category, dtype=float)
