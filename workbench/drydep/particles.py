@@ -377,8 +377,10 @@ def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, p
     once for all modes, what depends on the particle only (grown diameter and
     density, C_c, v_g, Sc) once per node on (site, time) without the receptor axis
     (see :class:`workbench.drydep.particles_numpy.ZhangSurface`).  The result equals the node-by-node sum to
-    rounding (tests/drydep/test_drydep_particles.py).  xarray and dask input take
-    the node-by-node sum itself.
+    rounding (tests/drydep/test_drydep_particles.py).  Large arrays are computed in
+    blocks of about :data:`BLOCK_ELEMENTS` elements along sites and hours (the same
+    numbers; the work arrays stay in the processor's cache).  xarray and dask input
+    take the node-by-node sum itself.
     """
     args = (relative_humidity, ustar, ra, temperature, pressure, seasonal_category, wet)
     if not _is_numpy(*args):

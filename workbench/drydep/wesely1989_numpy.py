@@ -41,8 +41,8 @@ _TABLE_NAN = {p: np.concatenate([t, np.full((len(t), 1), np.nan)], axis=1)
 def _gas_tables(gas, henry, reactivity):
     """The gas's r_lu (dry, dew, rain, NaN), r_cl and r_gs on the (type, category) table.
 
-    The same functions as :func:`surface_resistances` applies hour by hour, applied to
-    :data:`_TABLE_NAN` once [s m-1], flattened: r_lu (4 x 12 x 6), r_cl and r_gs (12 x 6),
+    The functions that :func:`workbench.drydep.wesely1989.surface_resistances` applies
+    hour by hour, applied once to :data:`_TABLE_NAN` [s m-1], flattened: r_lu (4 x 12 x 6), r_cl and r_gs (12 x 6),
     the low-temperature increment not included.
     """
     rlu = _TABLE_NAN["rlu"]
@@ -67,7 +67,7 @@ def surface_resistances(gases, state) -> dict:
     Returns
     -------
     dict
-        As :func:`surface_resistances` [s m-1].
+        As :func:`workbench.drydep.wesely1989.surface_resistances` [s m-1].
     """
     species = henry_and_reactivity(gases)
     arrays = [np.asarray(a) for a in (state.temperature, state.solar_radiation,
