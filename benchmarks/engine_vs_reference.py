@@ -13,16 +13,23 @@ Dataset), so the comparison favours the references.
 Inputs: one site-year of the invented demo (default ridge 2021: 3 receptors); N
 site-years are N copies of it with invented site ids, temperature perturbed by
 N(0, 0.5 K) and wind speed by a factor 1 + N(0, 0.05) (seeded), so that the copies
-differ.  Each timing is one run (the engine at 1 site-year: best of 3), wall clock;
-the numba kernel is compiled before it is timed; the scalar loop runs on the first
+differ.  The engine and the numba kernel are timed ``--repeat`` times each (default
+3), wall clock and CPU time of the process, and the best run counts (the machine is shared: the best run is the
+one least disturbed); the engine's first call of each size is printed as well (it
+pays for fresh memory: on a virtual machine whose transparent huge pages are on
+``madvise``, numpy's huge-page advice can make that first touch cost seconds of
+system time, see the environment variable NUMPY_MADVISE_HUGEPAGE).  The numba kernel
+is compiled before it is timed; the scalar loop runs once on the first
 ``--scalar-sites`` sites of the set only (its rate does not depend on the set size).
-Printed: site-receptor-hours per second (and site-hours per second) of each, and
-the ratios engine/scalar and engine/numba.  Nothing is asserted.
+Printed: site-receptor-hours per second (and site-hours per second) of each, the
+ratios engine/scalar and engine/numba, and the load average of the machine before
+and after each size.  Nothing is asserted.
 """
 from __future__ import annotations
 
 import argparse
 import json
+import os
 import sys
 import time
 import warnings
@@ -59,6 +66,7 @@ def main(argv=None):
     ap.add_argument("--days", type=int, default=None, help="only the first DAYS of the year")
     ap.add_argument("--sizes", type=int, nargs="+", default=[1, 100], help="site-years")
     ap.add_argument("--scalar-sites", type=int, default=2)
+    ap.add_argument("--repeat", type=int, default=3, help="runs of the engine and the kernel")
     ap.add_argument("--json", default=None)
     args = ap.parse_args(argv)
 
@@ -91,33 +99,47 @@ def main(argv=None):
         m, s = site_years(met, surf, n)
         n_r = s.sizes["receptor"]
         cells = n * n_r * m.sizes["time"]
-        t = time.perf_counter()
+        load_before = os.getloadavg()
+        t, c = time.perf_counter(), time.process_time()
         eng = velocities(m, s, opt)
-        t_eng = time.perf_counter() - t
-        if n == 1:  # best of 3 for the short run
-            for _ in range(2):
-                t = time.perf_counter()
-                velocities(m, s, opt)
-                t_eng = min(t_eng, time.perf_counter() - t)
+        t_first = t_eng = time.perf_counter() - t
+        c_eng = time.process_time() - c
+        for _ in range(args.repeat - 1):
+            t, c = time.perf_counter(), time.process_time()
+            velocities(m, s, opt)
+            t_eng = min(t_eng, time.perf_counter() - t)
+            c_eng = min(c_eng, time.process_time() - c)
         prep = rc.prepare(m, s, opt, eng)
         del eng
-        out = np.empty(prep[0][10].shape + (len(rc.OUTPUTS),))
-        t = time.perf_counter()
-        kernel(*prep, out)
-        t_nb = time.perf_counter() - t
+        nw = rc.node_work(prep[4])
+        t_nb = c_nb = np.inf
+        for _ in range(args.repeat):
+            out = np.empty(prep[0][10].shape + (len(rc.OUTPUTS),))
+            t, c = time.perf_counter(), time.process_time()
+            kernel(*prep, nw, out)
+            t_nb = min(t_nb, time.perf_counter() - t)
+            c_nb = min(c_nb, time.process_time() - c)
+            del out
         k = min(args.scalar_sites, n)
         sub = rc.prepare(m.isel(site=slice(0, k)), s.isel(site=slice(0, k)), opt,
                          velocities(m.isel(site=slice(0, k)), s.isel(site=slice(0, k)), opt))
-        t = time.perf_counter()
+        t, c = time.perf_counter(), time.process_time()
         rc.run_scalar(sub)
         t_sc = time.perf_counter() - t
+        c_sc = time.process_time() - c
         cells_sc = k * n_r * m.sizes["time"]
         row = {"site_years": n, "receptors": n_r, "hours": m.sizes["time"],
                "engine_cells_per_s": cells / t_eng, "numba_cells_per_s": cells / t_nb,
+               "engine_first_call_cells_per_s": cells / t_first, "repeat": args.repeat,
+               "load_average_before": load_before, "load_average_after": os.getloadavg(),
                "scalar_cells_per_s": cells_sc / t_sc, "scalar_sites_timed": k,
-               "engine_s": t_eng, "numba_s": t_nb, "scalar_s": t_sc}
+               "engine_s": t_eng, "numba_s": t_nb, "scalar_s": t_sc,
+               "engine_cpu_s": c_eng, "numba_cpu_s": c_nb, "scalar_cpu_s": c_sc}
         row["engine_over_scalar"] = row["engine_cells_per_s"] / row["scalar_cells_per_s"]
         row["engine_over_numba"] = row["engine_cells_per_s"] / row["numba_cells_per_s"]
+        # the same ratios on CPU time (steadier than wall time on a shared machine)
+        row["cpu_engine_over_scalar"] = (c_sc / cells_sc) / (c_eng / cells)
+        row["cpu_engine_over_numba"] = c_nb / c_eng
         rows.append(row)
         print(f"{n} site-year(s) x {n_r} receptors x {m.sizes['time']} h "
               f"({cells} site-receptor-hours):")
@@ -126,11 +148,19 @@ def main(argv=None):
             print(f"  {who:<7} {r / 1e6:9.4f} M site-receptor-hours/s "
                   f"({r / n_r / 1e6:8.4f} M site-hours/s)"
                   + (f"  [timed on {k} site(s)]" if who == "scalar" else ""))
+        print(f"  (engine, first call of this size: {cells / t_first / 1e6:.4f} M/s)")
+        print(f"  CPU time: engine {cells / c_eng / 1e6:.4f}, numba {cells / c_nb / 1e6:.4f}, "
+              f"scalar {cells_sc / c_sc / 1e6:.4f} M/s; engine/scalar "
+              f"{row['cpu_engine_over_scalar']:.1f} x, engine/numba "
+              f"{row['cpu_engine_over_numba']:.3f} x")
+        print(f"  load average before {' '.join(f'{x:.2f}' for x in load_before)}, after "
+              f"{' '.join(f'{x:.2f}' for x in row['load_average_after'])}")
         print(f"  engine/scalar {row['engine_over_scalar']:.1f} x   "
               f"engine/numba {row['engine_over_numba']:.3f} x   (numba/engine "
               f"{1 / row['engine_over_numba']:.2f} x)")
     print(f"numba compile (once, not in the rates): {compile_s:.1f} s")
-    result = {"rows": rows, "numba_compile_s": compile_s}
+    result = {"rows": rows, "numba_compile_s": compile_s,
+              "numpy_madvise_hugepage": os.environ.get("NUMPY_MADVISE_HUGEPAGE", "default")}
     if args.json:
         Path(args.json).write_text(json.dumps(result, indent=2), encoding="utf-8")
     return result

@@ -25,9 +25,14 @@ energy-balance / bisection / stable closed-form solve), the cloud cover used, th
 seasonal category, the wetness (``wet_kind``, ``surface_wet``).  Site and receptor
 constants (z0, d of the mast and receptors, tables) are prepared once with numpy.
 
-The hour function is written once; :func:`build` returns it either as plain Python (the
-scalar loop) or compiled by ``numba.njit`` into one fused loop over (site, receptor,
-hour).  Constants and tables are imported from the package (data, not equations).
+The hour functions are written once; :func:`build` returns them either as plain Python
+(the scalar loop) or compiled by ``numba.njit`` into one fused loop over (site, hour,
+receptor).  As the engine does, what one hour of one site gives every receptor (the
+air, the receptor-independent factors of H, Rb and Rc, and the grown particle's d^2,
+v_g, ln Sc and v_g^1/2 at each Gauss-Hermite node) is computed once per site and hour
+(:func:`air` inside :func:`build`), the rest once per receptor: the two references do
+the work the engine does, no more (the scalar loop too: hoisting these terms is what a
+careful scalar programmer would do).  Constants and tables are imported from the package (data, not equations).
 Units: SI throughout (K, Pa, m, s, kg); resistances [s m-1], velocities [m s-1].
 """
 from __future__ import annotations
@@ -60,8 +65,9 @@ def build(jit=None):
     Returns
     -------
     callable
-        ``loop(h, rcp, site, tabs, nodes, out)``: fills ``out[s][r][t][k]`` (one column
-        per :data:`OUTPUTS`) from the arrays of :func:`prepare`.
+        ``loop(h, rcp, site, tabs, nodes, nw, out)``: fills ``out[s][r][t][k]`` (one
+        column per :data:`OUTPUTS`) from the arrays of :func:`prepare`; ``nw`` is a work
+        array of the per-node terms (:func:`node_work`).
     """
     j = jit or (lambda f: f)
     K, G, CP, R = C.VON_KARMAN, C.GRAVITY, C.CP_DRY_AIR, C.GAS_CONSTANT
@@ -97,15 +103,64 @@ def build(jit=None):
         return us_m * math.log((zb - d_m) / z0_m) / math.log((zb - d) / z0)
 
     @j
-    def hour(temp, rh, k_down, pres_in, p_std, h_meas, snow, cloud, us_m, h_m, cat, kind, wet,
-             z0_m, d_m, z0_s, d_r, z_samp, slope, albedo, pt_alpha, wrow, zrow, tabs,
-             nodes, out):
+    def air(temp, rh, k_down, pres_in, p_std, cloud, cat, tabs, nodes, nw):
+        """What one hour of one site gives every receptor (the engine also computes these
+        once per site and hour): air, the receptor-independent parts of H, Rb, Rc, and per
+        Gauss-Hermite node the grown particle's d^2, v_g, ln Sc and v_g^1/2 (into `nw`)."""
         (floor, cap, zb, m_z0, n_charnock, wt, a_tab, alpha_t, gamma_t, smooth_t, water_row,
          c1, c2, c3, c4, growth, density) = tabs
         p = p_std if pres_in != pres_in else pres_in
         rho = p / (R * temp) * MD
         mu = MU0 * (temp / TS) ** 1.5 * (TS + SS) / (temp + SS)
         nu = mu / rho
+        rad6, rad4 = EB.HVU_C1 * temp ** 6, C.STEFAN_BOLTZMANN * temp ** 4
+        t_c = temp - T0C
+        e_s = C.MAGNUS_A * math.exp(C.MAGNUS_B * t_c / (t_c + C.MAGNUS_C))
+        slope_es = e_s * C.MAGNUS_B * C.MAGNUS_C / (t_c + C.MAGNUS_C) ** 2
+        ratio = (CP * p / (EPS * C.LATENT_HEAT_VAPORIZATION)) / slope_es
+        diff = D0_SO2 * (C.STANDARD_PRESSURE / p) * (temp / T0C) ** 1.81
+        sc_term = ((nu / diff) / C.PRANDTL_AIR) ** (2.0 / 3.0)
+        valid_cat = cat == cat and abs(cat) != INF
+        cold = W.COLD_SCALE * math.exp(-t_c - W.COLD_OFFSET)
+        ts_in = min(max(t_c, 1.0), W.RS_T_MAX - 1.0)
+        light = 1.0 + (W.RS_LIGHT / (k_down + W.RS_LIGHT_OFFSET)) ** 2
+        t_fac = W.RS_T_FACTOR / (ts_in * (W.RS_T_MAX - ts_in))
+        rs_open = t_c > 0.0 and t_c < W.RS_T_MAX
+        rdc_light = W.RDC_SCALE * (1.0 + W.RDC_LIGHT / (k_down + W.RDC_LIGHT_OFFSET))
+        # particles: the terms of the air and of each node (no receptor in them)
+        rh_c = min(max(rh, TINY), Z.GROWTH_RH_MAX)
+        log10_rh = math.log10(rh_c) if rh == rh else NAN
+        free_path = 2.0 * mu / (p * math.sqrt(8.0 * MD / (math.pi * R * temp)))
+        two_fp, slip_per_d = 2.0 * free_path, -Z.SLIP_C / (2.0 * free_path)
+        vg_per = G / (18.0 * mu)
+        sc_per = 3.0 * math.pi * mu * nu / (C.BOLTZMANN * temp)
+        for i in range(len(nodes)):
+            # per node: d, w and the terms of the node alone (see prepare)
+            d, gr_a, gr_b, rd3, excess = (nodes[i][0], nodes[i][2], nodes[i][3], nodes[i][4],
+                                          nodes[i][5])
+            if growth:  # Gerber (1985), radii in cm
+                dw = (gr_a / (gr_b - log10_rh) + rd3) ** (1.0 / 3.0) * (2.0 * Z.M_PER_CM)
+            else:
+                dw = d + (NAN if rh != rh else 0.0)
+            d2 = dw * dw
+            rho_p = excess / (d2 * dw) + C.WATER_DENSITY
+            x = max(dw * slip_per_d, Z._SLIP_EXP_MIN)
+            cc = (math.exp(x) * Z.SLIP_B + Z.SLIP_A) * (two_fp / dw) + 1.0
+            vg = rho_p * d2 * cc * vg_per
+            nw[i][0], nw[i][1], nw[i][2], nw[i][3] = (
+                d2, vg, math.log(dw / cc * sc_per), math.sqrt(vg))
+        return (p, rho, nu, rad6, rad4, ratio, sc_term, valid_cat, cold, light, t_fac, rs_open,
+                rdc_light)
+
+    @j
+    def cell(temp, k_down, h_meas, snow, cloud, us_m, h_m, cat, kind, wet,
+             z0_m, d_m, z0_s, d_r, z_samp, slope, albedo, pt_alpha, wrow, zrow, tabs,
+             nodes, nw, hour_terms, out):
+        """One receptor in one hour, from the hour's terms (:func:`air`)."""
+        (floor, cap, zb, m_z0, n_charnock, wt, a_tab, alpha_t, gamma_t, smooth_t, water_row,
+         c1, c2, c3, c4, growth, density) = tabs
+        (p, rho, nu, rad6, rad4, ratio, sc_term, valid_cat, cold, light, t_fac, rs_open,
+         rdc_light) = hour_terms
         # --- u* over the receptor --------------------------------------------------------
         water = z0_s != z0_s
         if water:
@@ -122,12 +177,7 @@ def build(jit=None):
             us_r = floor
         # --- heat flux over the receptor, 1/L ------------------------------------------------
         alb = EB.SNOW_ALBEDO if snow > 0.5 else albedo
-        q_star = ((1.0 - alb) * k_down + EB.HVU_C1 * temp ** 6 - C.STEFAN_BOLTZMANN * temp ** 4
-                  + EB.HVU_C2 * cloud) / (1.0 + EB.HVU_C3)
-        t_c = temp - T0C
-        e_s = C.MAGNUS_A * math.exp(C.MAGNUS_B * t_c / (t_c + C.MAGNUS_C))
-        slope_es = e_s * C.MAGNUS_B * C.MAGNUS_C / (t_c + C.MAGNUS_C) ** 2
-        ratio = (CP * p / (EPS * C.LATENT_HEAT_VAPORIZATION)) / slope_es
+        q_star = ((1.0 - alb) * k_down + rad6 - rad4 + EB.HVU_C2 * cloud) / (1.0 + EB.HVU_C3)
         h_pt = ((1.0 - pt_alpha) + ratio) / (1.0 + ratio) * (1.0 - EB.HVU_CG) * q_star - EB.HVU_BETA
         if h_meas == h_meas:
             h_r = h_meas
@@ -153,9 +203,7 @@ def build(jit=None):
         if ra > cap:
             ra = cap
         # --- Rb, Rc, Vd of SO2 -----------------------------------------------------------------
-        diff = D0_SO2 * (C.STANDARD_PRESSURE / p) * (temp / T0C) ** 1.81
-        rb = 2.0 / (K * us_r) * ((nu / diff) / C.PRANDTL_AIR) ** (2.0 / 3.0)
-        valid_cat = cat == cat and abs(cat) != INF
+        rb = 2.0 / (K * us_r) * sc_term
         col = int(cat) - 1 if valid_cat else 0
         base = (wrow * 5 + col)
 
@@ -164,11 +212,8 @@ def build(jit=None):
             rgs_o, rcl_s, rcl_o = wt[240 + base], wt[300 + base], wt[360 + base]
         else:
             ri = rlu_t = rac = rgs_s = rgs_o = rcl_s = rcl_o = NAN
-        cold = W.COLD_SCALE * math.exp(-t_c - W.COLD_OFFSET)
-        ts_in = min(max(t_c, 1.0), W.RS_T_MAX - 1.0)
-        rs = ri * (1.0 + (W.RS_LIGHT / (k_down + W.RS_LIGHT_OFFSET)) ** 2) * (
-            W.RS_T_FACTOR / (ts_in * (W.RS_T_MAX - ts_in)))
-        if not (t_c > 0.0 and t_c < W.RS_T_MAX):
+        rs = ri * light * t_fac
+        if not rs_open:
             rs = INF
         if temp != temp or k_down != k_down:
             rs = NAN
@@ -190,16 +235,12 @@ def build(jit=None):
                     + F0_SO2 * recip(max(rcl_o, zr) if rcl_o == rcl_o else rcl_o)) + cold
         rgs = recip(W.HENRY_SCALE * H_SO2 * recip(max(rgs_s, zr) if rgs_s == rgs_s else rgs_s)
                     + F0_SO2 * recip(max(rgs_o, zr) if rgs_o == rgs_o else rgs_o)) + cold
-        rdc = W.RDC_SCALE * (1.0 + W.RDC_LIGHT / (k_down + W.RDC_LIGHT_OFFSET)) / (
-            1.0 + W.RDC_SLOPE * math.radians(slope))
+        rdc = rdc_light / (1.0 + W.RDC_SLOPE * math.radians(slope))
         rc = recip(recip(rs + rm) + recip(rlu) + recip(rdc + rcl) + recip(rac + rgs))
         if temp != temp or k_down != k_down or kind != kind or not valid_cat:
             rc = NAN
         vd = 1.0 / (ra + rb + rc)
         # --- particles: one log-normal mode (Zhang et al. 2001) --------------------------------
-        rh_c = min(max(rh, TINY), Z.GROWTH_RH_MAX)
-        log10_rh = math.log10(rh_c) if rh == rh else NAN
-        free_path = 2.0 * mu / (p * math.sqrt(8.0 * MD / (math.pi * R * temp)))
         a = a_tab[zrow * 5 + col] if valid_cat else NAN
         smooth = smooth_t[zrow] > 0.5
         st_per_vg = us_r * us_r / nu if smooth else us_r / (G * a)
@@ -208,45 +249,33 @@ def build(jit=None):
         sqrt_reb = math.sqrt(st_per_vg * rebound)
         ra_p = ra if (wet == wet and valid_cat) else NAN
         alpha, neg_gamma = alpha_t[zrow], -gamma_t[zrow]
-        two_fp, slip_per_d = 2.0 * free_path, -Z.SLIP_C / (2.0 * free_path)
-        vg_per = G / (18.0 * mu)
-        sc_per = 3.0 * math.pi * mu * nu / (C.BOLTZMANN * temp)
+        eps_us = Z.EPSILON_0 * us_r
         total, vg_sum = 0.0, 0.0
         for i in range(len(nodes)):
-            # per node: d, w and the terms of the node alone (see prepare)
-            d, w, gr_a, gr_b, rd3, excess = (nodes[i][0], nodes[i][1], nodes[i][2], nodes[i][3],
-                                             nodes[i][4], nodes[i][5])
-            if growth:  # Gerber (1985), radii in cm
-                dw = (gr_a / (gr_b - log10_rh) + rd3) ** (1.0 / 3.0) * (2.0 * Z.M_PER_CM)
-            else:
-                dw = d + (NAN if rh != rh else 0.0)
-            d2 = dw * dw
-            rho_p = excess / (d2 * dw) + C.WATER_DENSITY
-            x = max(dw * slip_per_d, Z._SLIP_EXP_MIN)
-            cc = (math.exp(x) * Z.SLIP_B + Z.SLIP_A) * (two_fp / dw) + 1.0
-            log_sc = math.log(dw / cc * sc_per)
-            vg = rho_p * d2 * cc * vg_per
+            w = nodes[i][1]
+            d2, vg, log_sc, sqrt_vg = nw[i][0], nw[i][1], nw[i][2], nw[i][3]
             st = vg * st_per_vg
-            e = (math.exp(neg_gamma * log_sc) + (st / (alpha + st)) ** 2 + d2 * ein_per_d2) * (
-                Z.EPSILON_0 * us_r)
-            total += w / (math.exp(math.sqrt(vg) * sqrt_reb) / e + ra_p)
+            e = (math.exp(neg_gamma * log_sc) + (st / (alpha + st)) ** 2 + d2 * ein_per_d2) * eps_us
+            total += w / (math.exp(sqrt_vg * sqrt_reb) / e + ra_p)
             vg_sum += vg * w
         out[0], out[1], out[2], out[3], out[4], out[5], out[6] = (
             us_r, inv_l, ra, rb, rc, vd, total + vg_sum)
 
     @j
-    def loop(h, rcp, site, tabs, nodes, out):
+    def loop(h, rcp, site, tabs, nodes, nw, out):
         (temp, rh, k_down, pres, h_meas, snow, cloud, us_m, h_m, cat, kind, wet) = h
         (z0_s, d_r, albedo, pt_alpha, wrow, zrow) = rcp
         (p_std, z0_m, d_m, z_samp, slope) = site
         for s in range(len(temp)):
-            for r in range(len(z0_s[s])):
-                for t in range(len(temp[s])):
-                    hour(temp[s][t], rh[s][t], k_down[s][t], pres[s][t], p_std[s], h_meas[s][t],
-                         snow[s][t], cloud[s][t], us_m[s][t], h_m[s][t], cat[s][t],
-                         kind[s][r][t], wet[s][r][t], z0_m[s], d_m[s], z0_s[s][r], d_r[s][r],
-                         z_samp[s], slope[s], albedo[s][r], pt_alpha[s][r], wrow[s][r],
-                         zrow[s][r], tabs, nodes, out[s][r][t])
+            for t in range(len(temp[s])):
+                terms = air(temp[s][t], rh[s][t], k_down[s][t], pres[s][t], p_std[s], cloud[s][t],
+                            cat[s][t], tabs, nodes, nw)
+                for r in range(len(z0_s[s])):
+                    cell(temp[s][t], k_down[s][t], h_meas[s][t], snow[s][t], cloud[s][t],
+                         us_m[s][t], h_m[s][t], cat[s][t], kind[s][r][t], wet[s][r][t], z0_m[s],
+                         d_m[s], z0_s[s][r], d_r[s][r], z_samp[s], slope[s], albedo[s][r],
+                         pt_alpha[s][r], wrow[s][r], zrow[s][r], tabs, nodes, nw, terms,
+                         out[s][r][t])
     return loop
 
 
@@ -327,7 +356,7 @@ def run_scalar(prepared):
     lists = ([a.tolist() for a in h], [a.tolist() for a in rcp], [a.tolist() for a in site],
              tuple(x.tolist() if isinstance(x, np.ndarray) else x for x in tabs), nodes.tolist())
     out = [[[[0.0] * len(OUTPUTS) for _ in range(n_t)] for _ in range(n_r)] for _ in range(n_s)]
-    _SCALAR(*lists, out)
+    _SCALAR(*lists, [[0.0] * 4 for _ in range(len(nodes))], out)
     return np.array(out, dtype=float)
 
 
@@ -348,8 +377,13 @@ def run_numba(prepared):
     """The numba kernel on `prepared`; result (site, receptor, time, 7)."""
     h, rcp, site, tabs, nodes = prepared
     out = np.empty(h[10].shape + (len(OUTPUTS),))
-    numba_kernel()(h, rcp, site, tabs, nodes, out)
+    numba_kernel()(h, rcp, site, tabs, nodes, node_work(nodes), out)
     return out
+
+
+def node_work(nodes):
+    """The work array of the kernel's per-node terms (one row per node)."""
+    return np.empty((len(nodes), 4))
 
 
 def engine_columns(engine):

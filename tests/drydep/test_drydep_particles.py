@@ -205,3 +205,29 @@ def test_xarray_input_equals_numpy():
     assert isinstance(vd, xr.DataArray)
     ref = p.mass_weighted_velocity(MODES[0], rh, ustar, ra, temp, pres, land, cat, wet)
     np.testing.assert_allclose(vd.transpose(*dims3).values, ref, rtol=1e-12)
+
+
+def test_blocks_give_the_numbers_of_one_block(monkeypatch):
+    """mass_weighted_velocities in cache-sized blocks equals one call on everything."""
+    import workbench.drydep.particles as P
+    from workbench.drydep.options import DryOptions
+    rng = np.random.default_rng(7)
+    s, r, t = 3, 4, 500
+    rh = rng.uniform(0.2, 1.0, (s, 1, t))
+    rh.flat[::17] = np.nan
+    us, ra = rng.uniform(0.05, 1.0, (s, r, t)), rng.uniform(5.0, 300.0, (s, r, t))
+    temp, pres = rng.uniform(255.0, 305.0, (s, 1, t)), np.full((s, 1, t), 95e3)
+    land = np.array(["conifer_forest", "grass", "water", "urban"], dtype=object)[None, :, None]
+    cat = rng.integers(1, 6, (s, 1, t)).astype(float)
+    wet = rng.integers(0, 2, (s, r, t)).astype(float)
+    modes = [DryOptions().mode_of("pSO4").fine, DryOptions().mode_of("pCa").coarse]
+    args = (modes, rh, us, ra, temp, pres, land, cat, wet, 8)
+    whole = P.mass_weighted_velocities(*args)
+    monkeypatch.setattr(P, "BLOCK_ELEMENTS", 700)  # blocks over sites and hours
+    assert len(list(P.block_slices((s, r, t), P.BLOCK_ELEMENTS))) > s
+    for a, b in zip(P.mass_weighted_velocities(*args), whole):
+        np.testing.assert_array_equal(a, b)
+    # inputs of fewer axes broadcast against the blocks as they do against the whole
+    one = P.mass_weighted_velocities(modes, rh[0, 0], us[0], ra[0], temp[0, 0], pres[0, 0],
+                                     land[0], cat[0, 0], wet[0], 8)
+    np.testing.assert_array_equal(one[0], whole[0][0])

@@ -131,3 +131,87 @@ def test_reciprocal_array_path_equals_where_form():
     np.testing.assert_array_equal(w._recip(r), where_form)
     np.testing.assert_array_equal(w._recip(r.reshape(1, -1, 1)).ravel(), where_form)
     assert where_form[0] == np.inf and where_form[5] == 0.0 and where_form[1] == where_form[2]
+
+
+def test_reciprocal_in_place_and_fast_branch_equal_the_where_form():
+    # _recip_array: 1/r when no value is below the tiny resistance, else the masked form
+    for r in (np.array([2.0, 1e30, np.inf, np.nan, 1e-9]),
+              np.array([0.0, 1e-12, 3.0, np.nan]), np.array([np.nan, np.nan])):
+        want = np.where(r == 0, np.inf, 1.0 / np.maximum(r, w._R_TINY))
+        np.testing.assert_array_equal(w._recip_array(r), want)
+        buf = r.copy()
+        np.testing.assert_array_equal(w._recip_array(buf, out=buf), want)
+
+
+def _random_state(seed, n=400, bad_category=False):
+    rng = np.random.default_rng(seed)
+    rec = np.array(sorted(w.WESELY_CLASS), dtype=object)[None, :, None]
+    cat = rng.integers(1, 6, (3, 1, n)).astype(float)
+    if bad_category:
+        cat[0, 0, :5] = np.inf
+    solar = rng.uniform(0.0, 900.0, (3, 1, n))
+    temp = rng.uniform(250.0, 318.0, (3, 1, n))  # below 0 and above 40 degC included
+    kind = rng.integers(0, 3, (3, len(rec.ravel()), n)).astype(float)
+    for a, step in ((cat, 29), (solar, 37), (temp, 41), (kind, 43)):
+        a.flat[::step] = np.nan
+    return CanopyState(rec, cat, solar, temp, kind, np.array([0.0, 4.0, 10.0])[:, None, None])
+
+
+@pytest.mark.parametrize("seed,block", [(3, None), (4, None), (4, 500)])
+def test_numpy_path_equals_the_general_path(seed, block, monkeypatch):
+    """wesely1989_numpy (what the engine runs on numpy) against the general path, every path.
+
+    With ``block`` the numpy path runs in blocks of that many elements (as on large arrays).
+    """
+    from workbench.drydep import wesely1989_numpy as fast
+    from workbench.surface import _array
+    if block:
+        monkeypatch.setattr(_array, "BLOCK_ELEMENTS", block)
+    st = _random_state(seed, bad_category=seed == 4)
+    gases = ("SO2", "HNO3", "NH3", "NO2", "O3")
+    want = w.surface_resistances(gases, st)
+    got = fast.surface_resistances(gases, st)
+    for g in gases:
+        assert set(got[g]) == set(want[g])
+        for k in want[g]:
+            a, b = np.broadcast_arrays(got[g][k], want[g][k])
+            np.testing.assert_array_equal(np.isnan(a), np.isnan(b), err_msg=f"{g} {k}")
+            np.testing.assert_allclose(a, b, rtol=1e-14, atol=0.0, err_msg=f"{g} {k}")
+    rc = got["SO2"]["rc"]
+    assert np.isnan(rc).any() and np.isfinite(rc).any() and got["HNO3"]["floor_used"].any()
+
+
+def test_scheme_registry_takes_the_numpy_path_for_numpy_only():
+    from workbench.drydep import gas
+    st = _random_state(5, n=20)
+    via = gas.surface_resistances(w, ("SO2",), st)["SO2"]["rc"]
+    np.testing.assert_allclose(via, w.surface_resistances(("SO2",), st)["SO2"]["rc"],
+                               rtol=1e-14)
+    assert gas._plain_numpy(st)
+    for one in (CanopyState("grass", 1.0, 500.0, 290.0, 0.0),  # scalars and 1-d input
+                CanopyState(("grass", "water"), np.array([1.0, np.nan]), 10.0, 260.0,
+                            np.array([2.0, 1.0]))):
+        got = gas.surface_resistances(w, ("SO2", "HNO3"), one)
+        want = w.surface_resistances(("SO2", "HNO3"), one)
+        for g in got:
+            assert np.shape(got[g]["rc"]) == np.shape(want[g]["rc"])
+            np.testing.assert_allclose(got[g]["rc"], want[g]["rc"], rtol=1e-14)
+    assert not gas._plain_numpy(CanopyState(("grass",), xr.DataArray([1.0]), 500.0, 290.0, 0.0))
+
+
+def test_numpy_path_applies_the_codeposition_option_as_the_general_path():
+    """The SO2-NH3 co-deposition hook runs on the numpy path too (what the engine runs),
+    with the same Rc and the same hours marked as the general path."""
+    import dataclasses
+
+    from workbench.drydep import wesely1989_numpy as fast
+    st = _random_state(7)
+    rng = np.random.default_rng(7)
+    shape = (3, len(w.WESELY_CLASS), 400)
+    st = dataclasses.replace(st, nh3_so2_ratio=rng.uniform(0.1, 5.0, shape),
+                             relative_humidity=rng.uniform(0.4, 1.0, shape))
+    want = w.surface_resistances(("SO2",), st)["SO2"]
+    got = fast.surface_resistances(("SO2",), st)["SO2"]
+    assert want["codeposition_used"].any()
+    np.testing.assert_array_equal(got["codeposition_used"], want["codeposition_used"])
+    np.testing.assert_allclose(got["rc"], want["rc"], rtol=1e-14, atol=0.0)

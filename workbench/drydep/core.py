@@ -167,7 +167,8 @@ def _mode_lookup(cache, opt, mode):
 
 
 def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: list,
-            cache=None, met_surf: xr.Dataset | None = None) -> xr.Dataset:
+            cache=None, met_surf: xr.Dataset | None = None,
+            summaries: bool = False) -> xr.Dataset:
     """All hourly quantities for one in-memory block of the met Dataset.
 
     Parameters
@@ -186,6 +187,9 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     met_surf : xarray.Dataset, optional
         Every receptor surface of the sites (default `surf`), for the surface around
         the wind mast when `surf` holds only some receptors.
+    summaries : bool
+        Add the (site, receptor) summaries of :func:`_summaries` (when `block` is the
+        whole record).
 
     Returns
     -------
@@ -370,7 +374,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     (cat, cat_src, wet, kind, wet_src) = (sw[k] for k in _STATE_OUT)
 
     # --- 6. gases and particles ---------------------------------------------------------------
-    coords = {"site": block["site"].values, "receptor": receptors, "time": block["time"].values}
+    coords = _coordinates(block, receptors)
     shape3 = (n_s, n_r, n_t)
 
     # plain Variables here, coordinates once at the end (a DataArray each cost ~2 ms)
@@ -404,10 +408,13 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     land = rec(np.array(receptors, dtype=object))
     def gas_parts(opt):
         scheme = _gas.get_scheme(opt.gas_scheme)
+        reads = getattr(scheme, "READS", ("lai", "cos_zenith"))  # LAI and sun when read
         state = _gas.CanopyState(
             land, cat, k_down, temp, kind, site("terrain_slope"), us_r,
-            lai=_canopy.hourly_lai(surf, receptors, block["time"].values),
-            relative_humidity=rh, cos_zenith=_canopy.cos_zenith(block["time"].values, site),
+            lai=(_canopy.hourly_lai(surf, receptors, block["time"].values)
+                 if "lai" in reads else None),
+            relative_humidity=rh, cos_zenith=(_canopy.cos_zenith(block["time"].values, site)
+                                              if "cos_zenith" in reads else None),
             snow_cover=snow, hno3_rc_floor=opt.hno3_rc_floor,
             nh3_so2_ratio=st("nh3_so2_ratio") if opt.so2_codeposition else None)
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
@@ -532,7 +539,68 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                                   "pressure missing: standard atmosphere at the site elevation"),
         "night": sto(night, "1", "stable (night) branch of the surface layer"),
     }
-    return xr.Dataset({**base, **out}, coords=coords)
+    variables = {**base, **out}
+    if summaries:  # the whole record is here: its counts too, in the same constructor call
+        variables.update(_summaries(variables, surf, receptors, opt))
+    return xr.Dataset(variables, coords=coords)
+
+
+def _coordinates(block, receptors):
+    """Coordinates (site, receptor, time) of the result, reusing the block's indexes.
+
+    Building the pandas index of the hours again costs more than the rest of the
+    Dataset construction of a site-year; the block's own index is the same.
+    """
+    if not {"site", "time"} <= set(block.xindexes):
+        return {"site": block["site"].values, "receptor": receptors, "time": block["time"].values}
+    rec = xr.Coordinates({"receptor": receptors})
+    return xr.Coordinates(
+        {"site": block.variables["site"], "receptor": rec.variables["receptor"],
+         "time": block.variables["time"]},
+        indexes={"site": block.xindexes["site"], "receptor": rec.xindexes["receptor"],
+                 "time": block.xindexes["time"]})
+
+
+def _summaries(variables, surf, receptors, opt) -> dict:
+    """The (site, receptor) Variables of :func:`velocities`: d and the hours counted.
+
+    Parameters
+    ----------
+    variables : mapping of str to xarray.Variable
+        The hourly Variables of the whole record (numpy or dask-backed).
+    surf : xarray.Dataset
+    receptors : list of str
+    opt : DryOptions
+
+    Returns
+    -------
+    dict
+        ``displacement_height`` [m], ``active`` [1] and the ``n_*`` counts [1].
+    """
+    _, d_r = _receptor_roughness(surf, receptors, opt)
+    extra = {
+        "displacement_height": xr.Variable(("site", "receptor"), d_r,
+                                           {"units": "m", "long_name": "displacement height"}),
+        "active": xr.Variable(("site", "receptor"), surf["active"].values,
+                              {"units": "1", "long_name": "the site wants this receptor"})}
+    counts = {"n_ustar_floor": "ustar_floor_used", "n_ra_cap": "ra_cap_used",
+              "n_theta_star_limited": "theta_star_limited", "n_pressure_estimated": "pressure_estimated",
+              "n_ra_height_raised": "ra_height_raised"}
+    if "rc_floor_used_HNO3" in variables:
+        counts["n_hno3_rc_floor"] = "rc_floor_used_HNO3"
+
+    def hours(v, long_name):  # hours counted over time (numpy sums in memory)
+        dims = tuple(d for d in v.dims if d != "time")
+        attrs = {"units": "1", "long_name": f"hours counted: {long_name}"}
+        if v.chunks is not None:
+            return xr.Variable(dims, v.sum("time").data, attrs)
+        return xr.Variable(dims, np.sum(v.values, axis=v.dims.index("time")), attrs)
+    for name, flag in counts.items():
+        v = variables[flag]
+        extra[name] = hours(v, v.attrs["long_name"])
+    extra["n_cloud_default"] = hours(variables["cloud_cover_source"] == 2,
+                                     "cloud cover from the night_cloud_cover option")
+    return extra
 
 
 def _template(aug, surf, opt, receptors, met_surf=None):
@@ -593,7 +661,8 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         raise ValueError("met has dims (" + ", ".join(map(str, met.dims)) + "), not (site, "
                          "time): a gridded field runs cell by cell through workbench.grid "
                          "(`workbench grid SCENARIO`)")
-    met_surf = surfaces.sel(site=met["site"].values)
+    met_surf = (surfaces if np.array_equal(surfaces["site"].values, met["site"].values)
+                else surfaces.sel(site=met["site"].values))
     every = [str(r) for r in met_surf["receptor"].values]
     for r in every:
         landuse.check(r)
@@ -636,27 +705,13 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         if isinstance(cache, _graph.Graph):
             cache = cache.steps(_graph.variables_digest(
                 [*aug.variables.items(), *met_surf.variables.items()]))
-        hourly = _hourly(aug, surf, opt, receptors, cache, met_surf)
-    _, d_r = _receptor_roughness(surf, receptors, opt)
-    # Variables, added in one step (numpy sums in memory, dask sums when lazy)
-    extra = {
-        "displacement_height": xr.Variable(("site", "receptor"), d_r,
-                                           {"units": "m", "long_name": "displacement height"}),
-        "active": xr.Variable(("site", "receptor"), surf["active"].values,
-                              {"units": "1", "long_name": "the site wants this receptor"})}
-    counts = {"n_ustar_floor": "ustar_floor_used", "n_ra_cap": "ra_cap_used",
-              "n_theta_star_limited": "theta_star_limited", "n_pressure_estimated": "pressure_estimated",
-              "n_ra_height_raised": "ra_height_raised"}
-    if "rc_floor_used_HNO3" in hourly:
-        counts["n_hno3_rc_floor"] = "rc_floor_used_HNO3"
-    for name, flag in counts.items():
-        v = hourly.variables[flag]
-        extra[name] = v.sum("time")
-        extra[name].attrs = {"units": "1", "long_name": f"hours counted: {v.attrs['long_name']}"}
-    extra["n_cloud_default"] = (hourly.variables["cloud_cover_source"] == 2).sum("time")
-    extra["n_cloud_default"].attrs = {"units": "1", "long_name": "hours counted: cloud cover "
-                                      "from the night_cloud_cover option"}
-    ds = hourly.assign(extra)
+        hourly = _hourly(aug, surf, opt, receptors, cache, met_surf, summaries=True)
+    if lazy:  # the summaries over the whole record, then one constructor call
+        ds = xr.Dataset({**hourly.data_vars.variables,
+                         **_summaries(hourly.variables, surf, receptors, opt)},
+                        coords=hourly.coords)
+    else:
+        ds = hourly
     ds.attrs = {"gas_scheme": _gas.get_scheme(opt.gas_scheme).REFERENCE,
                 "particle_scheme": "Zhang et al. (2001), Atmos. Environ. 35, 549-560",
                 "nh3": NH3_NOTE, "wetness_rule": opt.wetness_rule,

@@ -18,6 +18,13 @@ A scheme is a module with
 * optionally ``SHARED_PATHS`` (the paths that do not depend on the gas, written once),
   ``PATH_NAMES`` (path -> long name) and ``DEW_RULE`` (the dew rule the scheme
   publishes, see :mod:`workbench.drydep.wetness`).
+* optionally ``READS``: the optional :class:`CanopyState` fields the scheme reads
+  (default: all); :func:`workbench.drydep.velocities` computes the hourly ``lai`` and
+  ``cos_zenith`` only for a scheme that reads them (None otherwise).
+* optionally ``NUMPY_PATH``: the module path of the same equations arranged for
+  plain numpy input (a ``surface_resistances(gases, state)`` of its own, equal to the
+  scheme's to rounding); :func:`surface_resistances` uses it when no array of the
+  state is an xarray or dask object.
 
 Schemes are registered in :data:`SCHEMES`; each is a module plus one line here.  NH3 is deposition only: no scheme
 returns a compensation point yet, and :func:`deposition_velocity` has room for one
@@ -25,10 +32,11 @@ returns a compensation point yet, and :func:`deposition_velocity` has room for o
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, fields
 import importlib
 
 import numpy as np
+import xarray as xr
 
 from ..constants import PRANDTL_AIR, VON_KARMAN, ZERO_CELSIUS
 from ..species import diffusivity
@@ -143,9 +151,20 @@ def surface_resistances(scheme, gases, state) -> dict:
     dict
         gas -> the dict of ``scheme.surface_resistance(gas, state)``.
     """
+    fast = getattr(scheme, "NUMPY_PATH", None)
+    if fast and _plain_numpy(state):
+        return importlib.import_module(fast).surface_resistances(tuple(gases), state)
     if hasattr(scheme, "surface_resistances"):
         return scheme.surface_resistances(tuple(gases), state)
     return {g: scheme.surface_resistance(g, state) for g in gases}
+
+
+def _plain_numpy(state) -> bool:
+    """True when no array of `state` is an xarray object or a dask (chunked) array."""
+    arrays = [getattr(state, f.name) for f in fields(state) if f.name not in (
+        "land_use", "receptor_dim", "hno3_rc_floor")]
+    return not any(isinstance(a, (xr.DataArray, xr.Dataset)) or hasattr(a, "chunks")
+                   for a in arrays)
 
 
 def schmidt_number(gas: str, temperature, pressure, viscosity=None):

@@ -26,7 +26,7 @@ import numpy as np
 import xarray as xr
 
 from ..constants import BOLTZMANN, GRAVITY, WATER_DENSITY
-from ..surface._array import is_xarray, where
+from ..surface._array import aligned, block_of, block_slices, is_xarray, where
 from ..surface.air import dynamic_viscosity, kinematic_viscosity, mean_free_path
 # the constants, table and nodes of the scheme live in zhang_tables (shared with the
 # numpy fast path, which this module imports: imports go one way); re-exported here
@@ -34,6 +34,10 @@ from .particles_numpy import ZhangSurface
 from .zhang_tables import (_ROW, _SLIP_EXP_MIN, EPSILON_0, GERBER, GROWTH_RH_MAX,  # noqa: F401
                            KAPPA, M_PER_CM, M_PER_MM, SLIP_A, SLIP_B, SLIP_C, ZHANG_LUC, _hermgauss,
                            _luc_table, _rows, lognormal_nodes)
+
+#: Elements per block of :func:`mass_weighted_velocities` (256 kB per array, so that
+#: the dozen work arrays of a block stay in the processor's cache).
+BLOCK_ELEMENTS = 32768
 
 
 def slip_correction(diameter, temperature, pressure):
@@ -373,8 +377,10 @@ def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, p
     once for all modes, what depends on the particle only (grown diameter and
     density, C_c, v_g, Sc) once per node on (site, time) without the receptor axis
     (see :class:`workbench.drydep.particles_numpy.ZhangSurface`).  The result equals the node-by-node sum to
-    rounding (tests/drydep/test_drydep_particles.py).  xarray and dask input take
-    the node-by-node sum itself.
+    rounding (tests/drydep/test_drydep_particles.py).  Large arrays are computed in
+    blocks of about :data:`BLOCK_ELEMENTS` elements along sites and hours (the same
+    numbers; the work arrays stay in the processor's cache).  xarray and dask input
+    take the node-by-node sum itself.
     """
     args = (relative_humidity, ustar, ra, temperature, pressure, seasonal_category, wet)
     if not _is_numpy(*args):
@@ -388,6 +394,22 @@ def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, p
                     land_use, seasonal_category, wet, mode.growth, receptor_dim)
             out.append(total)
         return out
-    surface = ZhangSurface(relative_humidity, ustar, ra, temperature, pressure, land_use,
-                           seasonal_category, wet)
-    return [surface.mass_weighted(mode, nodes) for mode in modes]
+    arrays = [np.asarray(a, dtype=float) for a in args]
+    land = land_use if isinstance(land_use, str) else np.asarray(land_use, dtype=object)
+    shape = np.broadcast_shapes(*(a.shape for a in arrays),
+                                () if isinstance(land, str) else land.shape)
+    blocks = list(block_slices(shape, BLOCK_ELEMENTS))
+    if len(blocks) == 1:
+        surface = ZhangSurface(*arrays[:5], land, *arrays[5:])
+        return [surface.mass_weighted(mode, nodes) for mode in modes]
+    arrays = [aligned(a, len(shape)) for a in arrays]
+    land = land if isinstance(land, str) else aligned(land, len(shape))
+    out = [np.empty(shape) for _ in modes]
+    for block in blocks:  # element-wise: the same numbers as one call on everything
+        part = [block_of(a, block) for a in arrays]
+        surface = ZhangSurface(*part[:5], land if isinstance(land, str)
+                               else block_of(land, block), *part[5:])
+        for vd, mode in zip(out, modes):
+            vd[block] = surface.mass_weighted(mode, nodes)
+    return out
+

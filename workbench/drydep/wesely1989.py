@@ -47,6 +47,10 @@ DEW_RULE = "air_temperature"
 #: NH3 has no path of its own in Wesely (1989): ``nh3_cuticle = "auto"`` gives it the
 #: humidity-dependent cuticle (:func:`workbench.drydep.nh3_bidirectional.resolve_cuticle`).
 NH3_CUTICLE = "humidity"
+#: The same equations arranged for numpy input (see :mod:`workbench.drydep.gas`).
+NUMPY_PATH = "workbench.drydep.wesely1989_numpy"
+#: Optional fields of the canopy state read (no LAI, no solar zenith angle).
+READS = ("terrain_slope", "hno3_rc_floor", "nh3_so2_ratio", "relative_humidity")
 
 _X = np.inf  # Wesely's 9999: the path does not exist
 #: Wesely's land-use types (Table 1 columns): 1 urban, 2 agricultural, 3 range,
@@ -172,12 +176,33 @@ def _recip(r):
         Conductance. [m s-1]
     """
     if isinstance(r, np.ndarray) and r.ndim:
-        out = 1.0 / np.maximum(r, _R_TINY)
-        zero = r == 0
-        if zero.any():
-            out[zero] = np.inf
-        return out
+        return _recip_array(r)
     return where(r == 0, np.inf, 1.0 / np.maximum(r, _R_TINY))
+
+
+def _recip_array(r, out=None):
+    """:func:`_recip` of a numpy array, into `out` when given (`out` may be `r`).
+
+    When no value is below :data:`_R_TINY` (NaN aside), 1/max(r, tiny) is 1/r: one
+    division and a minimum instead of a maximum, a division and a zero mask.
+
+    Parameters
+    ----------
+    r : numpy.ndarray
+        Resistance, >= 0 or NaN. [s m-1]
+    out : numpy.ndarray, optional
+
+    Returns
+    -------
+    numpy.ndarray
+        Conductance. [m s-1]
+    """
+    if r.size and np.fmin.reduce(r, axis=None) >= _R_TINY:  # fmin skips NaN
+        return np.divide(1.0, r, out=out)
+    zero = r == 0
+    out = np.divide(1.0, np.maximum(r, _R_TINY, out=out), out=out)
+    out[zero] = np.inf
+    return out
 
 
 def _nan_where(*inputs):
@@ -513,6 +538,18 @@ def surface_resistance(gas: str, state) -> dict:
     return surface_resistances((gas,), state)[gas]
 
 
+def henry_and_reactivity(gases) -> dict:
+    """H* [M atm-1] and f0 [-] of each gas from the species table (an error if missing)."""
+    species = {}
+    for gas in gases:
+        sp = _species(gas)
+        if sp.henry_eff is None or sp.reactivity is None:
+            raise ValueError(f"{gas}: no effective Henry constant or reactivity in the species "
+                             "table")
+        species[gas] = (sp.henry_eff, sp.reactivity)
+    return species
+
+
 def surface_resistances(gases, state) -> dict:
     """:func:`surface_resistance` of several gases over the same canopy [s m-1].
 
@@ -530,13 +567,7 @@ def surface_resistances(gases, state) -> dict:
     dict
         gas -> the dict of :func:`surface_resistance` (resistances [s m-1]).
     """
-    species = {}
-    for gas in gases:
-        sp = _species(gas)
-        if sp.henry_eff is None or sp.reactivity is None:
-            raise ValueError(f"{gas}: no effective Henry constant or reactivity in the species "
-                             "table")
-        species[gas] = (sp.henry_eff, sp.reactivity)
+    species = henry_and_reactivity(gases)
     t = state.temperature
     kind = state.wet_kind
     tab = table_values(state.land_use, state.seasonal_category, state.receptor_dim)
@@ -576,3 +607,4 @@ def surface_resistances(gases, state) -> dict:
         if gas == "SO2" and state.nh3_so2_ratio is not None:
             out[gas]["codeposition_used"] = codep
     return out
+

@@ -37,3 +37,112 @@ def asfloat(x):
         return x
     out = np.asarray(x, dtype=float)
     return out[()] if out.ndim == 0 else out
+
+
+#: Elements per block of :func:`blockwise` (256 kB per float array: the work arrays
+#: of a block stay in the processor's cache).
+BLOCK_ELEMENTS = 32768
+
+
+def plain_numpy(*args) -> bool:
+    """True when no argument is an xarray object or a dask (chunked) array."""
+    return not is_xarray(*args) and not any(hasattr(a, "chunks") for a in args)
+
+
+def block_slices(shape, size=None):
+    """Index tuples that cut an array of `shape` into blocks of about `size` elements.
+
+    Blocks run along the first axis (sites) and the last (hours); the axes between
+    are kept whole.
+
+    Parameters
+    ----------
+    shape : tuple of int
+    size : int, optional
+        Target elements per block (default :data:`BLOCK_ELEMENTS`). [-]
+
+    Returns
+    -------
+    iterator of tuple of slice
+        One tuple per block (a single block, ``(...,)``, for small or 0-d shapes).
+
+    >>> list(block_slices((2, 3, 4), size=12))
+    [(slice(0, 1, None), Ellipsis, slice(0, 4, None)), (slice(1, 2, None), Ellipsis, slice(0, 4, None))]
+    """
+    size = size or BLOCK_ELEMENTS
+    n = int(np.prod(shape)) if shape else 1
+    if len(shape) == 0 or n <= size:
+        yield (Ellipsis,)
+        return
+    if len(shape) == 1:
+        for i in range(0, shape[0], size):
+            yield (slice(i, i + size),)
+        return
+    inner = int(np.prod(shape[1:-1]))
+    nt = min(shape[-1], max(1, size // max(inner, 1)))
+    ns = max(1, size // max(inner * nt, 1))
+    for i in range(0, shape[0], ns):
+        for j in range(0, shape[-1], nt):
+            yield (slice(i, i + ns), Ellipsis, slice(j, j + nt))
+
+
+def aligned(a, ndim):
+    """`a` with leading axes of length 1 up to `ndim` axes (a view)."""
+    return a.reshape((1,) * (ndim - a.ndim) + a.shape)
+
+
+def block_of(a, block):
+    """The part of `a` (aligned, broadcastable to the blocked shape) that a block reads.
+
+    Axes of length 1 (broadcast) are kept whole; 0-d input is returned as it is.
+    """
+    if a.ndim == 0 or block == (Ellipsis,):
+        return a
+    first, last = block[0], (block[-1] if len(block) == 3 else None)
+    index = [first if a.shape[0] > 1 else slice(None)] + [slice(None)] * (a.ndim - 1)
+    if last is not None and a.ndim > 1:
+        index[-1] = last if a.shape[-1] > 1 else slice(None)
+    return a[tuple(index)]
+
+
+def blockwise(func, *args, size=None):
+    """``func(*args)`` of an element-wise function, evaluated in cache-sized blocks.
+
+    The same numbers as one call on the whole arrays (each element sees the same
+    operations); faster on large arrays, whose temporaries then stay in the
+    processor's cache.  Numpy input only.
+
+    Parameters
+    ----------
+    func : callable
+        Element-wise: numpy arrays in, one numpy array (or a tuple of them) out.
+    *args : array_like
+        Broadcastable against each other.
+    size : int, optional
+        Elements per block (default :data:`BLOCK_ELEMENTS`).
+
+    Returns
+    -------
+    numpy.ndarray or tuple of numpy.ndarray
+        Shape of the broadcast arguments.
+
+    >>> x = np.arange(6.0).reshape(2, 1, 3)
+    >>> bool((blockwise(np.add, x, np.ones((1, 2, 1)), size=2) == x + 1.0).all())
+    True
+    """
+    arrays = [np.asarray(a) for a in args]
+    shape = np.broadcast_shapes(*(a.shape for a in arrays))
+    blocks = list(block_slices(shape, size))
+    if len(blocks) == 1:
+        return func(*args)
+    arrays = [aligned(a, len(shape)) for a in arrays]
+    out = None
+    for block in blocks:
+        part = func(*(block_of(a, block) for a in arrays))
+        single = not isinstance(part, tuple)
+        parts = (part,) if single else part
+        if out is None:
+            out = tuple(np.empty(shape, dtype=np.asarray(p).dtype) for p in parts)
+        for o, p in zip(out, parts):
+            o[block] = p
+    return out[0] if single else out

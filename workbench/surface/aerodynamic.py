@@ -12,7 +12,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..constants import VON_KARMAN
-from ._array import where
+from ._array import blockwise, plain_numpy, where
 from .stability import psi_h, psi_m
 
 
@@ -81,6 +81,13 @@ def aerodynamic_resistance(z, d, z0, ustar, inv_obukhov=0.0):
     >>> round(float(aerodynamic_resistance(2.0, 0.08, 0.01476, ustar)) * u2)
     141
     """
+    if plain_numpy(z, d, z0, ustar, inv_obukhov):  # large arrays in cache-sized blocks
+        return blockwise(_aerodynamic_resistance, z, d, z0, ustar, inv_obukhov)
+    return _aerodynamic_resistance(z, d, z0, ustar, inv_obukhov)
+
+
+def _aerodynamic_resistance(z, d, z0, ustar, inv_obukhov):
+    """The formula of :func:`aerodynamic_resistance` (same arguments and units) [s m-1]."""
     zd = z - d
     return (np.log(zd / z0) - psi_h(zd * inv_obukhov) + psi_h(z0 * inv_obukhov)) / (
         VON_KARMAN * ustar)
