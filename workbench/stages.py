@@ -93,8 +93,14 @@ def velocities(o, met, surfaces, catalogue, steps, receptors, air=None):
         if site_g:
             dry = dry.with_values(nh3_emission_potential={**site_g,
                                                           **dry.nh3_emission_potential})
-    return _velocities(met, surfaces, dry, cache=steps,
-                       receptors=None if receptors is None else list(receptors))
+    vd = _velocities(met, surfaces, dry, cache=steps,
+                     receptors=None if receptors is None else list(receptors))
+    if vd.chunks:
+        # dask-backed met: the engine runs chunk by chunk (in parallel) once, here; every
+        # stage after this one reads the same computed arrays instead of re-running the
+        # task graph for each of them (21 computes of the whole engine before)
+        vd = vd.compute()
+    return vd
 
 
 def met_with_air(met, air, surfaces, dry_options):
