@@ -178,3 +178,27 @@ def test_blocks_without_start_and_end_take_the_network_span(setup):
     got = run_blocks(study, *args, block_sites=1)
     pd.testing.assert_frame_equal(whole.periods, got.periods)
     assert_same(whole, got)
+
+
+def test_blocks_group_sites_asking_for_the_same_surfaces(setup):
+    """Sites with the same wanted surfaces share a block (not consecutive in the
+    catalogue); every pair computed is wanted; the tables equal the whole run's."""
+    from workbench.blocks import wanted_blocks
+    from workbench.pipeline import Study
+    study, args = setup
+    over = {**study.site_overrides, "mere": {"land_use": "conifer_forest",
+                                             "receptors": ["moorland", "grass"]}}
+    ref_study = Study(study.inputs, over)
+    ref = ref_study.run(*args)
+    groups = wanted_blocks(ref_study.catalogue(), ref_study.receptors(), 2)
+    assert [sites for sites, _ in groups][0] == ["ridge", "mere"]     # ridge's set
+    got = run_blocks(study.inputs, *args, block_sites=2, site_overrides=over,
+                     keep_velocities=True)
+    pd.testing.assert_frame_equal(ref.table, got.table, rtol=1e-12, atol=0)
+    assert list(got.budget["site"].values) == list(SITES)
+    active = got.velocities["active"].values
+    assert (~active).any()
+    vd = got.velocities["vd_SO2"].values                          # (site, receptor, time)
+    assert np.isnan(vd[~active]).all()                            # unwanted: not computed
+    assert np.isfinite(vd[active]).any(axis=-1).all()
+    assert np.isfinite(ref.velocities["vd_SO2"].values[~active]).any()   # a whole run does

@@ -35,7 +35,7 @@ import xarray as xr
 from .pipeline import Result, Study
 from .tables import budget_table, span_table
 
-__all__ = ["run_blocks", "run_network", "site_blocks", "start_client"]
+__all__ = ["run_blocks", "run_network", "site_blocks", "start_client", "wanted_blocks"]
 
 
 def site_blocks(sites, block_sites=None) -> list:
@@ -51,6 +51,43 @@ def site_blocks(sites, block_sites=None) -> list:
         raise ValueError(f"block_sites must be at least 1, got {block_sites!r}")
     n = int(block_sites)
     return [sites[i:i + n] for i in range(0, len(sites), n)]
+
+
+def wanted_blocks(catalogue, receptors, block_sites=None) -> list:
+    """Blocks of sites that ask for the same receptor surfaces, and those surfaces.
+
+    The sites are grouped by the set of surfaces they ask for (their own land use and
+    their further receptors); each group, in catalogue order, is cut into blocks of at
+    most `block_sites`.  A block run with ``Study.run(..., receptors=surfaces)``
+    computes only (site, receptor) pairs that a site asks for.
+
+    Parameters
+    ----------
+    catalogue : SiteCatalogue
+        The network's catalogue, site overrides applied.
+    receptors : list of str
+        Every receptor surface of the network, in the order of a whole run.
+    block_sites : int, optional
+        Largest block [sites] (default: one block per group).
+
+    Returns
+    -------
+    list of (list of str, tuple of str)
+        (site ids, receptor surfaces in the network's order), groups in the order of
+        their first site in the catalogue.
+
+    >>> from types import SimpleNamespace as S
+    >>> cat = [S(id="a", surfaces=("grass",)), S(id="b", surfaces=("forest", "grass")),
+    ...        S(id="c", surfaces=("grass",))]
+    >>> wanted_blocks(cat, ["grass", "forest"], 1)
+    [(['a'], ('grass',)), (['c'], ('grass',)), (['b'], ('grass', 'forest'))]
+    """
+    groups = {}
+    for s in catalogue:
+        wanted = set(s.surfaces)
+        key = tuple(r for r in receptors if r in wanted)
+        groups.setdefault(key, []).append(s.id)
+    return [(block, key) for key, ids in groups.items() for block in site_blocks(ids, block_sites)]
 
 
 def run_block(inputs, site_overrides, args: dict, keep_velocities=False) -> dict:
@@ -179,7 +216,7 @@ def _ordered_samples(screened, positions):
     return screened.isel(sample=np.argsort(positions, kind="stable"))
 
 
-def reduce_blocks(blocks, receptors, sample_positions=None) -> Result:
+def reduce_blocks(blocks, receptors, sample_positions=None, sites=None) -> Result:
     """Concatenate reduced blocks (in catalogue order) into one :class:`Result`.
 
     Parameters
@@ -190,26 +227,38 @@ def reduce_blocks(blocks, receptors, sample_positions=None) -> Result:
         The network's receptor surfaces, in the order of a whole run.
     sample_positions : list of numpy.ndarray, optional
         Each block's rows of the precipitation input (to keep the file order).
+    sites : list of str, optional
+        The network's sites in catalogue order (blocks of sites asking for the same
+        surfaces are not consecutive in the catalogue); default: the blocks' order.
     """
     first = blocks[0]
-    budget = _concat([b["budget"] for b in blocks], "site", receptors)
+
+    def cat(parts, dim, receptors=None):
+        out = _concat(parts, dim, receptors)
+        if sites is None or out is None or dim != "site" or \
+                list(out["site"].values.astype(str)) == list(sites):
+            return out
+        return out.sel(site=[s for s in sites if s in set(out["site"].values.astype(str))])
+
+    budget = cat([b["budget"] for b in blocks], "site", receptors)
     years = (budget if first["years"] is None else
-             _concat([b["years"] for b in blocks], "site", receptors))
+             cat([b["years"] for b in blocks], "site", receptors))
     screened = _concat([b["screened"] for b in blocks], "sample")
     if sample_positions is not None:
         screened = _ordered_samples(screened, np.concatenate(sample_positions))
     notes = list(dict.fromkeys(n for b in blocks for n in b["notes"]))
     result = Result(budget=budget, years=years, screened=screened,
-                    wet=_concat([b["wet"] for b in blocks], "site"),
-                    velocities=_concat([b["velocities"] for b in blocks], "site", receptors),
-                    periods=first["periods"], options=dict(first["options"]), notes=notes)
+                    wet=cat([b["wet"] for b in blocks], "site"),
+                    velocities=cat([b["velocities"] for b in blocks], "site", receptors),
+                    periods=first["periods"], options={**first["options"], "receptors": None},
+                    notes=notes)
     if first.get("monthly") is not None:
-        result.monthly_budget = _concat([b["monthly"] for b in blocks], "site", receptors)
+        result.monthly_budget = cat([b["monthly"] for b in blocks], "site", receptors)
     if first["schemes"]:
         tables = [result.table.assign(scheme=first["options"]["dry"].gas_scheme)]
         for scheme in first["schemes"]:
-            b = _concat([blk["schemes"][scheme][0] for blk in blocks], "site", receptors)
-            y = b if first["schemes"][scheme][1] is None else _concat(
+            b = cat([blk["schemes"][scheme][0] for blk in blocks], "site", receptors)
+            y = b if first["schemes"][scheme][1] is None else cat(
                 [blk["schemes"][scheme][1] for blk in blocks], "site", receptors)
             span = span_table(budget_table(y))
             tables.append(pd.concat([budget_table(b), span], ignore_index=True)
@@ -275,7 +324,10 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
             "budget_options": budget_options, "fixed_velocity": fixed_velocity,
             "resolution": resolution, "start": start, "end": end}
     receptors = whole.receptors()
-    blocks = site_blocks(inputs.catalogue.ids, block_sites)
+    # blocks of sites asking for the same surfaces: only wanted pairs are computed
+    wanted = wanted_blocks(whole.catalogue(), receptors, block_sites)
+    blocks = [sites for sites, _ in wanted]
+    block_args = [{**args, "receptors": recs} for _, recs in wanted]
     precip = inputs.precipitation
     psites = precip["site"].values.astype(str) if precip is not None else None
     positions = [np.flatnonzero(np.isin(psites, b)) for b in blocks] if precip is not None else None
@@ -283,7 +335,8 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
     done = [None] * len(blocks)
     if client is None:
         for i, sites in enumerate(blocks):
-            done[i] = run_block(inputs.subset(sites=sites), site_overrides, args, keep_velocities)
+            done[i] = run_block(inputs.subset(sites=sites), site_overrides, block_args[i],
+                                keep_velocities)
             say(f"block {i + 1}/{len(blocks)} ({len(sites)} sites)")
     else:
         from .optional import require
@@ -300,8 +353,8 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
             i, sites = nxt
             # sent to a worker as data, not inside the task graph
             data = client.scatter(inputs.subset(sites=sites), hash=False)
-            fut = client.submit(run_block, data, site_overrides, args, keep_velocities,
-                                pure=False)
+            fut = client.submit(run_block, data, site_overrides, block_args[i],
+                                keep_velocities, pure=False)
             futures[fut] = i
             return fut
 
@@ -315,7 +368,7 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
             nxt = submit()
             if nxt is not None:
                 queue.add(nxt)
-    return reduce_blocks(done, receptors, positions)
+    return reduce_blocks(done, receptors, positions, list(inputs.catalogue.ids))
 
 
 #: Largest default block when a cluster is used and no block size is given [sites].
