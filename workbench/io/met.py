@@ -38,18 +38,41 @@ _UNITS_OUT = {"m/s": "m s-1", "K": "K", "1": "1", "W/m**2": "W m-2", "mm": "mm",
 HOUR = np.timedelta64(3600, "s").astype("timedelta64[ns]")
 
 
+def convert_met(raw, unit: str, name: str, target: str):
+    """Values of met variable `name` from `unit` to its internal unit `target`.
+
+    Parameters
+    ----------
+    raw : ndarray of float
+        [unit]
+    unit, name, target : str
+
+    Returns
+    -------
+    ndarray of float
+        [target]; an hourly sum of solar energy per area is the mean irradiance over
+        the hour, oktas of cloud are a fraction.
+
+    Raises
+    ------
+    ValueError
+        An unknown unit or one of the wrong dimension.
+    """
+    if name == "cloud_cover" and unit.strip().lower() in ("okta", "oktas"):
+        return raw / 8.0
+    if name == "solar_radiation":
+        u, _ = parse_unit(unit)
+        if u.dimensionality == ureg.parse_units("J/m**2").dimensionality:
+            # an hourly sum of energy per area: the mean irradiance over the hour
+            return convert_plain(raw, unit, "J/m**2") / 3600.0
+    return convert_plain(raw, unit, target)
+
+
 def _convert(tab: RawTable, name: str, target: str):
     raw = tab.numbers(name)
     unit = tab.unit_of(name, default="1" if target == "1" else None)
-    if name == "cloud_cover" and unit.strip().lower() in ("okta", "oktas"):
-        return raw / 8.0, unit
     try:
-        if name == "solar_radiation":
-            u, _ = parse_unit(unit)
-            if u.dimensionality == ureg.parse_units("J/m**2").dimensionality:
-                # an hourly sum of energy per area: the mean irradiance over the hour
-                return convert_plain(raw, unit, "J/m**2") / 3600.0, unit
-        return convert_plain(raw, unit, target), unit
+        return convert_met(raw, unit, name, target), unit
     except ValueError as exc:
         raise unit_error(tab, name, exc, f"a unit convertible to {target}") from None
 
@@ -75,6 +98,10 @@ def read_met(path, catalogue):
     path = Path(path)
     if path.suffix in (".nc", ".nc4", ".netcdf"):
         return _read_met_netcdf(path, catalogue)
+    from .metfast import read_met_csv_fast
+    fast = read_met_csv_fast(path, catalogue)
+    if fast is not None:        # else a file the line-by-line reader below must judge
+        return fast
     tab = RawTable.read(path)
     tab.require(["site", "time"] + [k for k, v in MET_VARIABLES.items() if v[1]])
     sites = check_sites(tab, catalogue)
