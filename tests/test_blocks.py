@@ -202,3 +202,16 @@ def test_blocks_group_sites_asking_for_the_same_surfaces(setup):
     assert np.isnan(vd[~active]).all()                            # unwanted: not computed
     assert np.isfinite(vd[active]).any(axis=-1).all()
     assert np.isfinite(ref.velocities["vd_SO2"].values[~active]).any()   # a whole run does
+
+
+def test_cli_large_network_runs_in_blocks_without_flags(scenario_file, tmp_path, monkeypatch):
+    """More sites than AUTO_BLOCK_SITES: blocks without being asked, same tables."""
+    import workbench.blocks as blocks
+    assert main(["run", str(scenario_file), "--out", str(tmp_path / "a"), "--quiet"]) == 0
+    monkeypatch.setattr(blocks, "AUTO_BLOCK_SITES", len(SITES) - 1)
+    monkeypatch.setattr(blocks, "DEFAULT_MAX_BLOCK", 1)
+    assert main(["run", str(scenario_file), "--out", str(tmp_path / "b"), "--quiet"]) == 0
+    for name in ("budget.csv", "summary.csv", "samples.csv"):
+        assert (tmp_path / "a" / name).read_bytes() == (tmp_path / "b" / name).read_bytes(), name
+    assert (tmp_path / "a" / "velocities.nc").exists()
+    assert not (tmp_path / "b" / "velocities.nc").exists()

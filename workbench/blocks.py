@@ -35,7 +35,8 @@ import xarray as xr
 from .pipeline import Result, Study
 from .tables import budget_table, span_table
 
-__all__ = ["run_blocks", "run_network", "site_blocks", "start_client", "wanted_blocks"]
+__all__ = ["run_blocks", "run_network", "site_blocks", "start_client", "wanted_blocks",
+           "wants_blocks"]
 
 
 def site_blocks(sites, block_sites=None) -> list:
@@ -330,7 +331,14 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
     block_args = [{**args, "receptors": recs} for _, recs in wanted]
     precip = inputs.precipitation
     psites = precip["site"].values.astype(str) if precip is not None else None
-    positions = [np.flatnonzero(np.isin(psites, b)) for b in blocks] if precip is not None else None
+    positions = None
+    if precip is not None:         # each block's rows of the precipitation file
+        block_of = np.full(len(inputs.catalogue.ids) + 1, -1)
+        where = pd.Index(list(inputs.catalogue.ids), dtype=object)
+        for i, sites in enumerate(blocks):
+            block_of[where.get_indexer(sites)] = i
+        row_block = block_of[where.get_indexer(psites.astype(object))]
+        positions = [np.flatnonzero(row_block == i) for i in range(len(blocks))]
     say = progress or (lambda text: None)
     done = [None] * len(blocks)
     if client is None:
@@ -371,12 +379,27 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
     return reduce_blocks(done, receptors, positions, list(inputs.catalogue.ids))
 
 
-#: Largest default block when a cluster is used and no block size is given [sites].
+#: Largest default block when no block size is given [sites].
 DEFAULT_MAX_BLOCK = 10
+#: ``workbench run`` computes a network of more sites than this in blocks without being
+#: asked (the hourly velocities of every pair at once grow with the network: about 55 MB
+#: a site-year, docs/performance.md); smaller runs are whole and write velocities.nc.
+AUTO_BLOCK_SITES = 20
 #: Note of a block run: the hourly velocities are not kept.
 NO_VELOCITIES_NOTE = ("computed in blocks of sites: the hourly velocities were dropped after "
-                      "each block, so velocities.nc is not written (run without --workers, "
-                      "--scheduler and --block-sites to get it)")
+                      "each block, so velocities.nc is not written (a network of more than "
+                      f"{AUTO_BLOCK_SITES} sites, or --workers, --scheduler or --block-sites; "
+                      "run a scenario of fewer sites without these options to get it)")
+
+
+def wants_blocks(n_sites, workers=None, scheduler=None, block_sites=None) -> bool:
+    """True when ``workbench run`` computes in blocks of sites: when asked
+    (`workers`, `scheduler`, `block_sites`) or for more than :data:`AUTO_BLOCK_SITES`.
+
+    >>> wants_blocks(4), wants_blocks(500), wants_blocks(4, block_sites=2)
+    (False, True, True)
+    """
+    return bool(workers or scheduler or block_sites) or n_sites > AUTO_BLOCK_SITES
 
 
 def run_network(study, wet_options, dry_options, budget_options, fixed_velocity, resolution,
@@ -387,7 +410,7 @@ def run_network(study, wet_options, dry_options, budget_options, fixed_velocity,
     Starts (and closes) a local cluster of `workers` processes, or connects to
     `scheduler`; without either the blocks run in this process.  The default block size
     with a cluster is the sites shared out as two blocks per worker, at most
-    :data:`DEFAULT_MAX_BLOCK` sites.
+    :data:`DEFAULT_MAX_BLOCK` sites; in this process :data:`DEFAULT_MAX_BLOCK`.
     """
     from .errors import WorkbenchError
     unc = sc.options.get("uncertainty") if sc is not None else None
@@ -400,6 +423,8 @@ def run_network(study, wet_options, dry_options, budget_options, fixed_velocity,
             n_workers = max(1, len(client.scheduler_info().get("workers", {})) or (workers or 1))
             n_sites = len(study.inputs.catalogue.ids)
             block_sites = min(DEFAULT_MAX_BLOCK, max(1, -(-n_sites // (2 * n_workers))))
+        elif block_sites is None:
+            block_sites = DEFAULT_MAX_BLOCK
         result = run_blocks(study, wet_options, dry_options, budget_options, fixed_velocity,
                             resolution, start, end, block_sites=block_sites, client=client,
                             progress=progress)

@@ -56,7 +56,9 @@ class Inputs:
         def cut(ds, dim):
             if ds is None:
                 return None
-            m = np.isin(ds["site"].values.astype(str), keep)
+            # hashed look-up: linear in rows (a network is cut into many blocks)
+            m = pd.Index(keep, dtype=object).get_indexer(
+                ds["site"].values.astype(str).astype(object)) >= 0
             if t0 is not None:
                 m &= ds["end"].values > t0
             if t1 is not None:

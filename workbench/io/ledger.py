@@ -13,6 +13,7 @@ codes.
 """
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -79,11 +80,12 @@ class CodedRows:
                              "reason": np.asarray(self.reasons, dtype=object)[k % len(self.reasons)],
                              "n": n[k].astype(np.int64)})
 
-    def add_reason(self, lines, reason: str):
-        """Add `reason` to the rows at `lines` (a rejected row stays rejected)."""
+    def with_reason(self, lines, reason: str) -> "CodedRows":
+        """These rows with `reason` added to those at `lines` (a rejected row stays
+        rejected); self is not changed (ledgers added together share their parts)."""
         sel = np.isin(self.lines, np.asarray(lines))
         if not sel.any():
-            return
+            return self
         old = np.unique(self.reason_codes[sel])
         texts = list(np.asarray(self.reasons, dtype=object))
         remap = np.arange(len(texts))
@@ -92,8 +94,9 @@ class CodedRows:
             if new not in texts:
                 texts.append(new)
             remap[c] = texts.index(new)
-        self.reasons = np.array(texts, dtype=object)
-        self.reason_codes = np.where(sel, remap[self.reason_codes], self.reason_codes)
+        return dataclasses.replace(self, reasons=np.array(texts, dtype=object),
+                                   reason_codes=np.where(sel, remap[self.reason_codes],
+                                                         self.reason_codes))
 
 
 class Ledger:
@@ -168,7 +171,7 @@ class Ledger:
         for k, part in enumerate(self.parts):
             if isinstance(part, CodedRows):
                 if part.file == str(file):
-                    part.add_reason(lines, reason)
+                    self.parts[k] = part.with_reason(lines, reason)
                 continue
             t = part
             sel = (t["file"] == str(file)) & t["line"].isin(np.asarray(lines))
