@@ -32,6 +32,7 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
+from .io.common import release_free_memory
 from .pipeline import Result, Study
 from .tables import budget_table, span_table
 
@@ -127,11 +128,14 @@ def run_block(inputs, site_overrides, args: dict, keep_velocities=False) -> dict
     monthly = None
     if args.get("resolution", "year") != "month":
         monthly = study.run(**{**args, "resolution": "month"}).budget
-    return {"budget": res.budget, "years": None if res.years is res.budget else res.years,
-            "monthly": monthly, "screened": res.screened, "wet": res.wet,
-            "velocities": res.velocities if keep_velocities else None,
-            "periods": res.periods, "options": res.options, "notes": list(res.notes),
-            "schemes": schemes}
+    out = {"budget": res.budget, "years": None if res.years is res.budget else res.years,
+           "monthly": monthly, "screened": res.screened, "wet": res.wet,
+           "velocities": res.velocities if keep_velocities else None,
+           "periods": res.periods, "options": res.options, "notes": list(res.notes),
+           "schemes": schemes}
+    del study, res
+    release_free_memory()      # the block's hourly arrays: back to the system
+    return out
 
 
 # ---------------------------------------------------------------- reduction
@@ -380,7 +384,7 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
 
 
 #: Largest default block when no block size is given [sites].
-DEFAULT_MAX_BLOCK = 10
+DEFAULT_MAX_BLOCK = 4
 #: ``workbench run`` computes a network of more sites than this in blocks without being
 #: asked (the hourly velocities of every pair at once grow with the network: about 55 MB
 #: a site-year, docs/performance.md); smaller runs are whole and write velocities.nc.

@@ -31,7 +31,7 @@ import xarray as xr
 
 from ..units import parse_header
 from . import metchecks
-from .common import join_reasons
+from .common import join_reasons, release_free_memory
 from .ledger import CodedRows, Ledger
 from .table import _OFFSET, MISSING_TEXTS, YEARS
 
@@ -347,6 +347,7 @@ def _checked(values, site, t, first_line, path, catalogue, ids, units, raw_heade
     ds["row_present"] = (("site", "time"), row_present,
                          {"long_name": "an input row exists for this hour"})
     ds.attrs["source_file"] = str(path)
+    release_free_memory()              # the row arrays, freed above
     ledger.notes.extend(metchecks.describe_gaps(ds))
     unknown = [raw_headers[c] for c in raw_headers if c not in set(variables) | {"site", "time"}]
     if unknown:
