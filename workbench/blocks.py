@@ -138,6 +138,14 @@ def run_block(inputs, site_overrides, args: dict, keep_velocities=False) -> dict
     return out
 
 
+def block_inputs(inputs, sites):
+    """The inputs of a block of sites, without the ledger of the files (the computation
+    does not read it; for the hourly met of a network it is millions of rows, which
+    would travel with every block sent to a worker)."""
+    from .io.ledger import Ledger
+    return dataclasses.replace(inputs.subset(sites=sites), ledger=Ledger(), gauge_check=None)
+
+
 # ---------------------------------------------------------------- reduction
 def _fill_value(dtype):
     """The value of a (site, receptor) pair a block has no receptor for."""
@@ -347,7 +355,7 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
     done = [None] * len(blocks)
     if client is None:
         for i, sites in enumerate(blocks):
-            done[i] = run_block(inputs.subset(sites=sites), site_overrides, block_args[i],
+            done[i] = run_block(block_inputs(inputs, sites), site_overrides, block_args[i],
                                 keep_velocities)
             say(f"block {i + 1}/{len(blocks)} ({len(sites)} sites)")
     else:
@@ -364,7 +372,7 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
                 return None
             i, sites = nxt
             # sent to a worker as data, not inside the task graph
-            data = client.scatter(inputs.subset(sites=sites), hash=False)
+            data = client.scatter(block_inputs(inputs, sites), hash=False)
             fut = client.submit(run_block, data, site_overrides, block_args[i],
                                 keep_velocities, pure=False)
             futures[fut] = i

@@ -161,3 +161,17 @@ def test_coded_ledger_as_the_table():
         assert c.check_balanced() and c.rows() == e.rows()
     assert coded.table.loc[coded.table["line"] == 6, "status"].item() == "rejected"
     assert Ledger().summary().empty and Ledger().reasons().empty
+
+
+def test_large_ledgers_as_codes_equal_the_table():
+    """A reader's ledger of many rows (the line reader, NetCDF) is held as codes."""
+    rng = np.random.default_rng(3)
+    n = 1000
+    rows = ("m.nc", np.arange(n) + 1, rng.choice(["a", "b", "c"], n),
+            rng.choice(["", "", "x", "x; y"], n).astype(object), rng.random(n) < 0.1)
+    small = Ledger.for_rows(*rows)
+    coded = Ledger.for_many_rows(*rows, limit=10)
+    assert isinstance(coded.parts[0], CodedRows)
+    pd.testing.assert_frame_equal(small.table, coded.table)
+    pd.testing.assert_frame_equal(small.summary(), coded.summary())
+    pd.testing.assert_frame_equal(small.reasons(), coded.reasons(), check_dtype=False)

@@ -20,6 +20,8 @@ import numpy as np
 import pandas as pd
 
 STATUSES = ("accepted", "flagged", "rejected")
+#: Rows of one file above which a reader keeps its ledger rows as codes.
+CODED_ABOVE = 200_000
 _COLUMNS = ("file", "line", "site", "status", "reason")
 
 
@@ -55,6 +57,15 @@ class CodedRows:
     reason_codes: np.ndarray
     reasons: np.ndarray
     rejected: np.ndarray
+
+    @classmethod
+    def from_rows(cls, file, lines, sites, reasons, rejected) -> "CodedRows":
+        """The rows of :meth:`Ledger.for_rows`, as codes."""
+        s_codes, s_names = pd.factorize(np.asarray(sites, dtype=object))
+        r_codes, r_names = pd.factorize(np.asarray(reasons, dtype=object))
+        return cls(str(file), np.asarray(lines), s_codes.astype(np.int32),
+                   np.asarray(s_names, dtype=object), r_codes.astype(np.int32),
+                   np.asarray(r_names, dtype=object), np.asarray(rejected, dtype=bool))
 
     def status(self) -> np.ndarray:
         """0 accepted, 1 flagged, 2 rejected, per row."""
@@ -157,6 +168,13 @@ class Ledger:
                               "site": np.asarray(sites, dtype=object).astype(str),
                               "status": status, "reason": reasons.astype(str)})
         return cls(table=table)
+
+    @classmethod
+    def for_many_rows(cls, file, lines, sites, reasons, rejected, limit=CODED_ABOVE):
+        """:meth:`for_rows`, held as codes when there are more than `limit` rows."""
+        if len(lines) <= limit:
+            return cls.for_rows(file, lines, sites, reasons, rejected)
+        return cls.for_codes(CodedRows.from_rows(file, lines, sites, reasons, rejected))
 
     @classmethod
     def for_codes(cls, rows: CodedRows):

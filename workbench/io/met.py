@@ -166,7 +166,7 @@ def _assemble(values, sites, t, lines, path, catalogue, raw_units, empty_reason)
         empty &= np.isnan(v)
     reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, raw_units)
     reasons = np.where(empty, join_reasons([reasons, np.full(n, empty_reason, object)]), reasons)
-    ledger = Ledger.for_rows(path, lines, sites, reasons, empty)
+    ledger = Ledger.for_many_rows(path, lines, sites, reasons, empty)
     keep = ~empty
     if not keep.any():
         raise InputError("no values in any row", file=path,
