@@ -404,14 +404,19 @@ NO_VELOCITIES_NOTE = ("computed in blocks of sites: the hourly velocities were d
                       "run a scenario of fewer sites without these options to get it)")
 
 
-def wants_blocks(n_sites, workers=None, scheduler=None, block_sites=None) -> bool:
+def wants_blocks(n_sites, workers=None, scheduler=None, block_sites=None, draws=0) -> bool:
     """True when ``workbench run`` computes in blocks of sites: when asked
-    (`workers`, `scheduler`, `block_sites`) or for more than :data:`AUTO_BLOCK_SITES`.
+    (`workers`, `scheduler`, `block_sites`) or for more than :data:`AUTO_BLOCK_SITES`
+    sites, unless the scenario asks for Monte Carlo `draws` (they need the whole run).
 
     >>> wants_blocks(4), wants_blocks(500), wants_blocks(4, block_sites=2)
     (False, True, True)
+    >>> wants_blocks(500, draws=1000)
+    False
     """
-    return bool(workers or scheduler or block_sites) or n_sites > AUTO_BLOCK_SITES
+    if workers or scheduler or block_sites:
+        return True
+    return n_sites > AUTO_BLOCK_SITES and not draws
 
 
 def run_network(study, wet_options, dry_options, budget_options, fixed_velocity, resolution,

@@ -91,7 +91,9 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
             args = (study, o["wet"], o["dry"], o["budget"], sc.fixed_velocity,
                     resolution or p["resolution"], p["start"], p["end"])
             from .blocks import wants_blocks
-            if wants_blocks(len(study.inputs.catalogue.ids), workers, scheduler, block_sites):
+            unc = o.get("uncertainty")
+            if wants_blocks(len(study.inputs.catalogue.ids), workers, scheduler, block_sites,
+                            getattr(unc, "draws", 0) if unc is not None else 0):
                 from .blocks import run_network
                 result = run_network(*args, sc=sc, workers=workers, scheduler=scheduler,
                                      block_sites=block_sites, progress=bar.set_postfix_str)
