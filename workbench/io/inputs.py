@@ -57,8 +57,7 @@ class Inputs:
             if ds is None:
                 return None
             # hashed look-up: linear in rows (a network is cut into many blocks)
-            m = pd.Index(keep, dtype=object).get_indexer(
-                ds["site"].values.astype(str).astype(object)) >= 0
+            m = pd.Series(ds["site"].values.astype(str).astype(object)).isin(keep).to_numpy()
             if t0 is not None:
                 m &= ds["end"].values > t0
             if t1 is not None:
