@@ -57,7 +57,7 @@ class Inputs:
             if ds is None:
                 return None
             # hashed look-up: linear in rows (a network is cut into many blocks)
-            m = pd.Series(ds["site"].values.astype(str).astype(object)).isin(keep).to_numpy()
+            m = pd.Series(ds["site"].values.astype(str).astype(object)).isin(keep).to_numpy().copy()
             if t0 is not None:
                 m &= ds["end"].values > t0
             if t1 is not None:

@@ -33,6 +33,7 @@ from ..units import parse_header
 from . import metchecks
 from .common import join_reasons, release_free_memory
 from .ledger import CodedRows, Ledger
+from .metvars import _UNITS_OUT, HOUR, MET_VARIABLES, convert_met
 from .table import _OFFSET, MISSING_TEXTS, YEARS
 
 #: Bytes of text parsed at a time.
@@ -168,7 +169,6 @@ def read_met_csv_fast(path, catalogue, chunk_bytes=CHUNK_BYTES):
     (xarray.Dataset, Ledger) or None
         As :func:`~workbench.io.met.read_met`; None for a file to be read line by line.
     """
-    from .met import HOUR, MET_VARIABLES, convert_met
     path = Path(path)
     try:
         with open(path, "rb") as f:
@@ -282,7 +282,6 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
 def _checked(values, site, t, first_line, path, catalogue, ids, units, raw_headers, variables,
              hour):
     """Repeats refused, per-site checks, the ledger as codes and the (site, time) grid."""
-    from .met import _UNITS_OUT
     n = len(site)
     order = np.argsort(site, kind="stable")             # rows of each site, in file order
     s_sorted = site[order]
