@@ -237,7 +237,7 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
             return None
         df = pd.read_csv(io.BytesIO(chunk), header=None, names=names,
                          usecols=used, dtype=dtype, na_values=list(MISSING_TEXTS),
-                         keep_default_na=False, skip_blank_lines=False, engine="c")
+                         keep_default_na=False, skip_blank_lines=False)
         if len(df) != rows:
             return None
         sc = df["site"].cat
