@@ -117,6 +117,8 @@ def test_interleaved_sites_flags_and_empty_rows(tmp_path, cat, monkeypatch, chun
     (lambda t: t.replace("T05:00", "2020-13-45", 1), "not an ISO 8601 timestamp"),
     (lambda t: t.replace(",1010.5,", ",inf,1010.5,", 1), "malformed CSV row"),
     (lambda t: t.replace(",1010.5,", ",1e999,", 1), "not a finite number"),
+    (lambda t: t.replace(",1010.5,", ",True,", 1), "text in a numeric column"),
+    (lambda t: t.replace(",1010.5,", ",-nan,", 1), "text in a numeric column"),
     (lambda t: t.replace("[hPa]", "[parsec]"), "unit"),
     (lambda t: t.replace("wind_speed", "wind"), "missing required column"),
     (lambda t: t.replace(",x3\n", ",x3,\n", 1), "malformed CSV row"),

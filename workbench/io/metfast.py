@@ -41,6 +41,8 @@ CHUNK_BYTES = 32 << 20
 #: Rows of met checked at a time (whole sites; the checks are per site).
 CHECK_ROWS = 400_000
 _BLANK = re.compile(rb"[^\S\n]")
+#: Cells the C parser reads as a number but the line reader refuses ("True" is 1.0 there).
+_WORDS = re.compile(rb"(?:^|,)(?:[Tt]rue|TRUE|[Ff]alse|FALSE)(?=,|\n|$)", re.MULTILINE)
 
 
 def _head(stream):
@@ -233,11 +235,15 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
     for chunk in _chunks(stream, chunk_bytes):
         rows = chunk.count(b"\n") + (not chunk.endswith(b"\n"))
         if (not chunk.isascii() or b'"' in chunk or b"\n\n" in chunk or chunk[:1] == b"\n"
-                or _BLANK.search(chunk) or chunk.count(b",") != rows * (len(cells) - 1)):
+                or _BLANK.search(chunk) or chunk.count(b",") != rows * (len(cells) - 1)
+                or _WORDS.search(chunk)):
             return None
-        df = pd.read_csv(io.BytesIO(chunk), header=None, names=names,
-                         usecols=used, dtype=dtype, na_values=list(MISSING_TEXTS),
-                         keep_default_na=False, skip_blank_lines=False)
+        try:
+            df = pd.read_csv(io.BytesIO(chunk), header=None, names=names,
+                             usecols=used, dtype=dtype, na_values=list(MISSING_TEXTS),
+                             keep_default_na=False, skip_blank_lines=False)
+        except (ValueError, IndexError, TypeError, pd.errors.ParserError):
+            return None              # a cell that is no number: the line reader names it
         if len(df) != rows:
             return None
         sc = df["site"].cat
@@ -256,7 +262,9 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
         got = {"site": site_idx, "time": t}
         for n in used[2:]:
             v = df[n].to_numpy(dtype=float)
-            if np.isinf(v).any():
+            # inf is refused by the line reader; a "-0" it may read as +0 (whole-number
+            # columns parse as integers there): both left to it
+            if np.isinf(v).any() or ((v == 0) & np.signbit(v)).any():
                 return None
             got[n] = convert(v, units[n], n, variables[n][0])
         if not parts:          # rows of the file estimated from its size and this chunk
