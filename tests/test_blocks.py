@@ -178,3 +178,40 @@ def test_blocks_without_start_and_end_take_the_network_span(setup):
     got = run_blocks(study, *args, block_sites=1)
     pd.testing.assert_frame_equal(whole.periods, got.periods)
     assert_same(whole, got)
+
+
+def test_blocks_group_sites_asking_for_the_same_surfaces(setup):
+    """Sites with the same wanted surfaces share a block (not consecutive in the
+    catalogue); every pair computed is wanted; the tables equal the whole run's."""
+    from workbench.blocks import wanted_blocks
+    from workbench.pipeline import Study
+    study, args = setup
+    over = {**study.site_overrides, "mere": {"land_use": "conifer_forest",
+                                             "receptors": ["moorland", "grass"]}}
+    ref_study = Study(study.inputs, over)
+    ref = ref_study.run(*args)
+    groups = wanted_blocks(ref_study.catalogue(), ref_study.receptors(), 2)
+    assert [sites for sites, _ in groups][0] == ["ridge", "mere"]     # ridge's set
+    got = run_blocks(study.inputs, *args, block_sites=2, site_overrides=over,
+                     keep_velocities=True)
+    pd.testing.assert_frame_equal(ref.table, got.table, rtol=1e-12, atol=0)
+    assert list(got.budget["site"].values) == list(SITES)
+    active = got.velocities["active"].values
+    assert (~active).any()
+    vd = got.velocities["vd_SO2"].values                          # (site, receptor, time)
+    assert np.isnan(vd[~active]).all()                            # unwanted: not computed
+    assert np.isfinite(vd[active]).any(axis=-1).all()
+    assert np.isfinite(ref.velocities["vd_SO2"].values[~active]).any()   # a whole run does
+
+
+def test_cli_large_network_runs_in_blocks_without_flags(scenario_file, tmp_path, monkeypatch):
+    """More sites than AUTO_BLOCK_SITES: blocks without being asked, same tables."""
+    import workbench.blocks as blocks
+    assert main(["run", str(scenario_file), "--out", str(tmp_path / "a"), "--quiet"]) == 0
+    monkeypatch.setattr(blocks, "AUTO_BLOCK_SITES", len(SITES) - 1)
+    monkeypatch.setattr(blocks, "DEFAULT_MAX_BLOCK", 1)
+    assert main(["run", str(scenario_file), "--out", str(tmp_path / "b"), "--quiet"]) == 0
+    for name in ("budget.csv", "summary.csv", "samples.csv"):
+        assert (tmp_path / "a" / name).read_bytes() == (tmp_path / "b" / name).read_bytes(), name
+    assert (tmp_path / "a" / "velocities.nc").exists()
+    assert not (tmp_path / "b" / "velocities.nc").exists()

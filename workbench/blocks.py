@@ -32,10 +32,12 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
+from .io.common import release_free_memory
 from .pipeline import Result, Study
 from .tables import budget_table, span_table
 
-__all__ = ["run_blocks", "run_network", "site_blocks", "start_client"]
+__all__ = ["run_blocks", "run_network", "site_blocks", "start_client", "wanted_blocks",
+           "wants_blocks"]
 
 
 def site_blocks(sites, block_sites=None) -> list:
@@ -51,6 +53,43 @@ def site_blocks(sites, block_sites=None) -> list:
         raise ValueError(f"block_sites must be at least 1, got {block_sites!r}")
     n = int(block_sites)
     return [sites[i:i + n] for i in range(0, len(sites), n)]
+
+
+def wanted_blocks(catalogue, receptors, block_sites=None) -> list:
+    """Blocks of sites that ask for the same receptor surfaces, and those surfaces.
+
+    The sites are grouped by the set of surfaces they ask for (their own land use and
+    their further receptors); each group, in catalogue order, is cut into blocks of at
+    most `block_sites`.  A block run with ``Study.run(..., receptors=surfaces)``
+    computes only (site, receptor) pairs that a site asks for.
+
+    Parameters
+    ----------
+    catalogue : SiteCatalogue
+        The network's catalogue, site overrides applied.
+    receptors : list of str
+        Every receptor surface of the network, in the order of a whole run.
+    block_sites : int, optional
+        Largest block [sites] (default: one block per group).
+
+    Returns
+    -------
+    list of (list of str, tuple of str)
+        (site ids, receptor surfaces in the network's order), groups in the order of
+        their first site in the catalogue.
+
+    >>> from types import SimpleNamespace as S
+    >>> cat = [S(id="a", surfaces=("grass",)), S(id="b", surfaces=("forest", "grass")),
+    ...        S(id="c", surfaces=("grass",))]
+    >>> wanted_blocks(cat, ["grass", "forest"], 1)
+    [(['a'], ('grass',)), (['c'], ('grass',)), (['b'], ('grass', 'forest'))]
+    """
+    groups = {}
+    for s in catalogue:
+        wanted = set(s.surfaces)
+        key = tuple(r for r in receptors if r in wanted)
+        groups.setdefault(key, []).append(s.id)
+    return [(block, key) for key, ids in groups.items() for block in site_blocks(ids, block_sites)]
 
 
 def run_block(inputs, site_overrides, args: dict, keep_velocities=False) -> dict:
@@ -89,11 +128,22 @@ def run_block(inputs, site_overrides, args: dict, keep_velocities=False) -> dict
     monthly = None
     if args.get("resolution", "year") != "month":
         monthly = study.run(**{**args, "resolution": "month"}).budget
-    return {"budget": res.budget, "years": None if res.years is res.budget else res.years,
-            "monthly": monthly, "screened": res.screened, "wet": res.wet,
-            "velocities": res.velocities if keep_velocities else None,
-            "periods": res.periods, "options": res.options, "notes": list(res.notes),
-            "schemes": schemes}
+    out = {"budget": res.budget, "years": None if res.years is res.budget else res.years,
+           "monthly": monthly, "screened": res.screened, "wet": res.wet,
+           "velocities": res.velocities if keep_velocities else None,
+           "periods": res.periods, "options": res.options, "notes": list(res.notes),
+           "schemes": schemes}
+    del study, res
+    release_free_memory()      # the block's hourly arrays: back to the system
+    return out
+
+
+def block_inputs(inputs, sites):
+    """The inputs of a block of sites, without the ledger of the files (the computation
+    does not read it; for the hourly met of a network it is millions of rows, which
+    would travel with every block sent to a worker)."""
+    from .io.ledger import Ledger
+    return dataclasses.replace(inputs.subset(sites=sites), ledger=Ledger(), gauge_check=None)
 
 
 # ---------------------------------------------------------------- reduction
@@ -179,7 +229,7 @@ def _ordered_samples(screened, positions):
     return screened.isel(sample=np.argsort(positions, kind="stable"))
 
 
-def reduce_blocks(blocks, receptors, sample_positions=None) -> Result:
+def reduce_blocks(blocks, receptors, sample_positions=None, sites=None) -> Result:
     """Concatenate reduced blocks (in catalogue order) into one :class:`Result`.
 
     Parameters
@@ -190,26 +240,38 @@ def reduce_blocks(blocks, receptors, sample_positions=None) -> Result:
         The network's receptor surfaces, in the order of a whole run.
     sample_positions : list of numpy.ndarray, optional
         Each block's rows of the precipitation input (to keep the file order).
+    sites : list of str, optional
+        The network's sites in catalogue order (blocks of sites asking for the same
+        surfaces are not consecutive in the catalogue); default: the blocks' order.
     """
     first = blocks[0]
-    budget = _concat([b["budget"] for b in blocks], "site", receptors)
+
+    def cat(parts, dim, receptors=None):
+        out = _concat(parts, dim, receptors)
+        if sites is None or out is None or dim != "site" or \
+                list(out["site"].values.astype(str)) == list(sites):
+            return out
+        return out.sel(site=[s for s in sites if s in set(out["site"].values.astype(str))])
+
+    budget = cat([b["budget"] for b in blocks], "site", receptors)
     years = (budget if first["years"] is None else
-             _concat([b["years"] for b in blocks], "site", receptors))
+             cat([b["years"] for b in blocks], "site", receptors))
     screened = _concat([b["screened"] for b in blocks], "sample")
     if sample_positions is not None:
         screened = _ordered_samples(screened, np.concatenate(sample_positions))
     notes = list(dict.fromkeys(n for b in blocks for n in b["notes"]))
     result = Result(budget=budget, years=years, screened=screened,
-                    wet=_concat([b["wet"] for b in blocks], "site"),
-                    velocities=_concat([b["velocities"] for b in blocks], "site", receptors),
-                    periods=first["periods"], options=dict(first["options"]), notes=notes)
+                    wet=cat([b["wet"] for b in blocks], "site"),
+                    velocities=cat([b["velocities"] for b in blocks], "site", receptors),
+                    periods=first["periods"], options={**first["options"], "receptors": None},
+                    notes=notes)
     if first.get("monthly") is not None:
-        result.monthly_budget = _concat([b["monthly"] for b in blocks], "site", receptors)
+        result.monthly_budget = cat([b["monthly"] for b in blocks], "site", receptors)
     if first["schemes"]:
         tables = [result.table.assign(scheme=first["options"]["dry"].gas_scheme)]
         for scheme in first["schemes"]:
-            b = _concat([blk["schemes"][scheme][0] for blk in blocks], "site", receptors)
-            y = b if first["schemes"][scheme][1] is None else _concat(
+            b = cat([blk["schemes"][scheme][0] for blk in blocks], "site", receptors)
+            y = b if first["schemes"][scheme][1] is None else cat(
                 [blk["schemes"][scheme][1] for blk in blocks], "site", receptors)
             span = span_table(budget_table(y))
             tables.append(pd.concat([budget_table(b), span], ignore_index=True)
@@ -275,15 +337,26 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
             "budget_options": budget_options, "fixed_velocity": fixed_velocity,
             "resolution": resolution, "start": start, "end": end}
     receptors = whole.receptors()
-    blocks = site_blocks(inputs.catalogue.ids, block_sites)
+    # blocks of sites asking for the same surfaces: only wanted pairs are computed
+    wanted = wanted_blocks(whole.catalogue(), receptors, block_sites)
+    blocks = [sites for sites, _ in wanted]
+    block_args = [{**args, "receptors": recs} for _, recs in wanted]
     precip = inputs.precipitation
     psites = precip["site"].values.astype(str) if precip is not None else None
-    positions = [np.flatnonzero(np.isin(psites, b)) for b in blocks] if precip is not None else None
+    positions = None
+    if precip is not None:         # each block's rows of the precipitation file
+        block_of = np.full(len(inputs.catalogue.ids) + 1, -1)
+        where = pd.Index(list(inputs.catalogue.ids), dtype=object)
+        for i, sites in enumerate(blocks):
+            block_of[where.get_indexer(sites)] = i
+        row_block = block_of[where.get_indexer(psites.astype(object))]
+        positions = [np.flatnonzero(row_block == i) for i in range(len(blocks))]
     say = progress or (lambda text: None)
     done = [None] * len(blocks)
     if client is None:
         for i, sites in enumerate(blocks):
-            done[i] = run_block(inputs.subset(sites=sites), site_overrides, args, keep_velocities)
+            done[i] = run_block(block_inputs(inputs, sites), site_overrides, block_args[i],
+                                keep_velocities)
             say(f"block {i + 1}/{len(blocks)} ({len(sites)} sites)")
     else:
         from .optional import require
@@ -299,9 +372,9 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
                 return None
             i, sites = nxt
             # sent to a worker as data, not inside the task graph
-            data = client.scatter(inputs.subset(sites=sites), hash=False)
-            fut = client.submit(run_block, data, site_overrides, args, keep_velocities,
-                                pure=False)
+            data = client.scatter(block_inputs(inputs, sites), hash=False)
+            fut = client.submit(run_block, data, site_overrides, block_args[i],
+                                keep_velocities, pure=False)
             futures[fut] = i
             return fut
 
@@ -315,15 +388,35 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
             nxt = submit()
             if nxt is not None:
                 queue.add(nxt)
-    return reduce_blocks(done, receptors, positions)
+    return reduce_blocks(done, receptors, positions, list(inputs.catalogue.ids))
 
 
-#: Largest default block when a cluster is used and no block size is given [sites].
-DEFAULT_MAX_BLOCK = 10
+#: Largest default block when no block size is given [sites].
+DEFAULT_MAX_BLOCK = 4
+#: ``workbench run`` computes a network of more sites than this in blocks without being
+#: asked (the hourly velocities of every pair at once grow with the network: about 55 MB
+#: a site-year, docs/performance.md); smaller runs are whole and write velocities.nc.
+AUTO_BLOCK_SITES = 20
 #: Note of a block run: the hourly velocities are not kept.
 NO_VELOCITIES_NOTE = ("computed in blocks of sites: the hourly velocities were dropped after "
-                      "each block, so velocities.nc is not written (run without --workers, "
-                      "--scheduler and --block-sites to get it)")
+                      "each block, so velocities.nc is not written (a network of more than "
+                      f"{AUTO_BLOCK_SITES} sites, or --workers, --scheduler or --block-sites; "
+                      "run a scenario of fewer sites without these options to get it)")
+
+
+def wants_blocks(n_sites, workers=None, scheduler=None, block_sites=None, draws=0) -> bool:
+    """True when ``workbench run`` computes in blocks of sites: when asked
+    (`workers`, `scheduler`, `block_sites`) or for more than :data:`AUTO_BLOCK_SITES`
+    sites, unless the scenario asks for Monte Carlo `draws` (they need the whole run).
+
+    >>> wants_blocks(4), wants_blocks(500), wants_blocks(4, block_sites=2)
+    (False, True, True)
+    >>> wants_blocks(500, draws=1000)
+    False
+    """
+    if workers or scheduler or block_sites:
+        return True
+    return n_sites > AUTO_BLOCK_SITES and not draws
 
 
 def run_network(study, wet_options, dry_options, budget_options, fixed_velocity, resolution,
@@ -334,7 +427,7 @@ def run_network(study, wet_options, dry_options, budget_options, fixed_velocity,
     Starts (and closes) a local cluster of `workers` processes, or connects to
     `scheduler`; without either the blocks run in this process.  The default block size
     with a cluster is the sites shared out as two blocks per worker, at most
-    :data:`DEFAULT_MAX_BLOCK` sites.
+    :data:`DEFAULT_MAX_BLOCK` sites; in this process :data:`DEFAULT_MAX_BLOCK`.
     """
     from .errors import WorkbenchError
     unc = sc.options.get("uncertainty") if sc is not None else None
@@ -347,6 +440,8 @@ def run_network(study, wet_options, dry_options, budget_options, fixed_velocity,
             n_workers = max(1, len(client.scheduler_info().get("workers", {})) or (workers or 1))
             n_sites = len(study.inputs.catalogue.ids)
             block_sites = min(DEFAULT_MAX_BLOCK, max(1, -(-n_sites // (2 * n_workers))))
+        elif block_sites is None:
+            block_sites = DEFAULT_MAX_BLOCK
         result = run_blocks(study, wet_options, dry_options, budget_options, fixed_velocity,
                             resolution, start, end, block_sites=block_sites, client=client,
                             progress=progress)

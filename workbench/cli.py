@@ -57,7 +57,8 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
     """Load a scenario, compute its budget and write the run folder.
 
     With `workers` (a local dask cluster of that many processes), `scheduler` (the
-    address of a running dask scheduler) or `block_sites`, the sites are computed in
+    address of a running dask scheduler) or `block_sites`, and for a network of more
+    than :data:`workbench.blocks.AUTO_BLOCK_SITES` sites, the sites are computed in
     blocks (:func:`workbench.blocks.run_blocks`) and velocities.nc is not written.
 
     The output folder is checked and locked before anything is computed (a second run
@@ -89,7 +90,10 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
             p = sc.data["period"]
             args = (study, o["wet"], o["dry"], o["budget"], sc.fixed_velocity,
                     resolution or p["resolution"], p["start"], p["end"])
-            if workers or scheduler or block_sites:
+            from .blocks import wants_blocks
+            unc = o.get("uncertainty")
+            if wants_blocks(len(study.inputs.catalogue.ids), workers, scheduler, block_sites,
+                            getattr(unc, "draws", 0) if unc is not None else 0):
                 from .blocks import run_network
                 result = run_network(*args, sc=sc, workers=workers, scheduler=scheduler,
                                      block_sites=block_sites, progress=bar.set_postfix_str)
@@ -198,8 +202,9 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--scheduler", default=None, metavar="ADDRESS", help="compute blocks of "
                    "sites on the dask scheduler at ADDRESS (e.g. tcp://host:8786)")
     r.add_argument("--block-sites", type=_positive, default=None, metavar="K",
-                   help="sites per block (default: one block, or blocks for the workers); "
-                   "in block mode velocities.nc is not written")
+                   help="sites per block (default 10; a network of more than 20 sites is "
+                   "computed in blocks without this option); in block mode velocities.nc "
+                   "is not written")
     r.set_defaults(func=cmd_run)
     g = sub.add_parser("sensitivity", help="Sobol indices and a tornado of the budget totals "
                        "([sensitivity] section of the scenario)")

@@ -139,3 +139,29 @@ def duplicate_rows(tab: RawTable, sites, samplers, start, end, what="sample"):
                                 f"has {tab.frame[col].iloc[j]!r}); keep the corrected row only, "
                                 "or give collocated samplers their own sampler_id")
     return drop, reasons
+
+
+def release_free_memory() -> bool:
+    """Give the memory freed inside the C heap back to the system (glibc ``malloc_trim``).
+
+    A network computed in blocks frees the arrays of each block, but glibc keeps the
+    freed pages of its heap (the next block's arrays do not fit the holes that the small
+    results of the blocks before leave): measured on 100 site-years, 485 MB resident
+    after the blocks against 220 MB once trimmed (docs/performance.md).  Returns False
+    where there is no glibc (the call is then skipped; nothing else changes).
+    """
+    import ctypes
+    import ctypes.util
+    global _TRIM
+    if _TRIM is None:
+        try:
+            _TRIM = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6").malloc_trim
+        except (OSError, AttributeError):
+            _TRIM = False
+    if not _TRIM:
+        return False
+    _TRIM(0)
+    return True
+
+
+_TRIM = None

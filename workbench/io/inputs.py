@@ -56,7 +56,8 @@ class Inputs:
         def cut(ds, dim):
             if ds is None:
                 return None
-            m = np.isin(ds["site"].values.astype(str), keep)
+            # hashed look-up: linear in rows (a network is cut into many blocks)
+            m = pd.Series(ds["site"].values.astype(str).astype(object)).isin(keep).to_numpy().copy()
             if t0 is not None:
                 m &= ds["end"].values > t0
             if t1 is not None:

@@ -4,34 +4,147 @@ Each reader returns its data together with a :class:`Ledger` that has one entry 
 data row of the file: ``accepted``, ``flagged`` (accepted, with the reasons) or
 ``rejected`` (not used, with the reasons).  Rows read always equal accepted +
 flagged + rejected.
+
+A large file (hourly met of a network: millions of rows) is held as
+:class:`CodedRows`: integer codes of the site and of the reason per row, a few bytes a
+row instead of a row of Python strings; :attr:`Ledger.table` spells the rows out only
+when asked for, and :meth:`Ledger.summary` and :meth:`Ledger.reasons` count on the
+codes.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+import dataclasses
+from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 
 STATUSES = ("accepted", "flagged", "rejected")
+#: Rows of one file above which a reader keeps its ledger rows as codes.
+CODED_ABOVE = 200_000
+_COLUMNS = ("file", "line", "site", "status", "reason")
+
+
+def _empty_table() -> pd.DataFrame:
+    return pd.DataFrame({"file": pd.Series(dtype=str), "line": pd.Series(dtype=int),
+                         "site": pd.Series(dtype=str), "status": pd.Series(dtype=str),
+                         "reason": pd.Series(dtype=str)})
 
 
 @dataclass
+class CodedRows:
+    """The ledger rows of one file as codes.
+
+    Attributes
+    ----------
+    file : str
+    lines : ndarray of int
+        Line number of each row in the file.
+    site_codes : ndarray of int
+        Index of each row's site in `sites`.
+    sites : ndarray of str
+    reason_codes : ndarray of int
+        Index of each row's reason in `reasons` ("" = none).
+    reasons : ndarray of object
+        The distinct "; "-joined reason texts.
+    rejected : ndarray of bool
+    """
+
+    file: str
+    lines: np.ndarray
+    site_codes: np.ndarray
+    sites: np.ndarray
+    reason_codes: np.ndarray
+    reasons: np.ndarray
+    rejected: np.ndarray
+
+    @classmethod
+    def from_rows(cls, file, lines, sites, reasons, rejected) -> "CodedRows":
+        """The rows of :meth:`Ledger.for_rows`, as codes."""
+        s_codes, s_names = pd.factorize(np.asarray(sites, dtype=object))
+        r_codes, r_names = pd.factorize(np.asarray(reasons, dtype=object))
+        return cls(str(file), np.asarray(lines), s_codes.astype(np.int32),
+                   np.asarray(s_names, dtype=object), r_codes.astype(np.int32),
+                   np.asarray(r_names, dtype=object), np.asarray(rejected, dtype=bool))
+
+    def status(self) -> np.ndarray:
+        """0 accepted, 1 flagged, 2 rejected, per row."""
+        has = (np.asarray(self.reasons, dtype=object) != "")[self.reason_codes]
+        return np.where(self.rejected, 2, has.astype(np.int8))
+
+    def frame(self) -> pd.DataFrame:
+        """The rows spelled out (columns ``file, line, site, status, reason``)."""
+        return pd.DataFrame({"file": self.file, "line": np.asarray(self.lines, dtype=int),
+                             "site": np.asarray(self.sites, dtype=object)[self.site_codes]
+                             .astype(str),
+                             "status": np.array(STATUSES, dtype=object)[self.status()],
+                             "reason": np.asarray(self.reasons, dtype=object)[self.reason_codes]
+                             .astype(str)})
+
+    def counts(self) -> pd.DataFrame:
+        """Rows per (status, reason text): columns ``file, status, reason, n``."""
+        key = self.status().astype(np.int64) * len(self.reasons) + self.reason_codes
+        n = np.bincount(key, minlength=3 * len(self.reasons))
+        k = np.flatnonzero(n)
+        return pd.DataFrame({"file": self.file,
+                             "status": np.array(STATUSES, dtype=object)[k // len(self.reasons)],
+                             "reason": np.asarray(self.reasons, dtype=object)[k % len(self.reasons)],
+                             "n": n[k].astype(np.int64)})
+
+    def with_reason(self, lines, reason: str) -> "CodedRows":
+        """These rows with `reason` added to those at `lines` (a rejected row stays
+        rejected); self is not changed (ledgers added together share their parts)."""
+        sel = np.isin(self.lines, np.asarray(lines))
+        if not sel.any():
+            return self
+        old = np.unique(self.reason_codes[sel])
+        texts = list(np.asarray(self.reasons, dtype=object))
+        remap = np.arange(len(texts))
+        for c in old:
+            new = reason if texts[c] == "" else texts[c] + "; " + reason
+            if new not in texts:
+                texts.append(new)
+            remap[c] = texts.index(new)
+        return dataclasses.replace(self, reasons=np.array(texts, dtype=object),
+                                   reason_codes=np.where(sel, remap[self.reason_codes],
+                                                         self.reason_codes))
+
+
 class Ledger:
     """Row-by-row account of what happened to the input.
 
     Attributes
     ----------
     table : pandas.DataFrame
-        Columns ``file, line, site, status, reason``.
+        Columns ``file, line, site, status, reason`` (built from the parts when read).
     notes : list of str
         File-level remarks (unknown columns ignored, metadata read, ...).
+    parts : list
+        The rows, per file, as DataFrames or :class:`CodedRows`, in order.
     """
 
-    table: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
-        {"file": pd.Series(dtype=str), "line": pd.Series(dtype=int),
-         "site": pd.Series(dtype=str), "status": pd.Series(dtype=str),
-         "reason": pd.Series(dtype=str)}))
-    notes: list = field(default_factory=list)
+    def __init__(self, table=None, notes=None, parts=None):
+        self.parts = list(parts) if parts is not None else (
+            [table] if table is not None and len(table) else [])
+        self.notes = list(notes) if notes is not None else []
+
+    def __repr__(self):
+        return f"Ledger({self.rows()} rows in {len(self.parts)} parts, {len(self.notes)} notes)"
+
+    @property
+    def table(self) -> pd.DataFrame:
+        frames = [p.frame() if isinstance(p, CodedRows) else p for p in self.parts]
+        if not frames:
+            return _empty_table()
+        return frames[0] if len(frames) == 1 else pd.concat(frames, ignore_index=True)
+
+    @table.setter
+    def table(self, value):
+        self.parts = [value] if value is not None and len(value) else []
+
+    def rows(self) -> int:
+        """Number of rows accounted for."""
+        return int(sum(len(p.lines) if isinstance(p, CodedRows) else len(p) for p in self.parts))
 
     @classmethod
     def for_rows(cls, file, lines, sites, reasons, rejected):
@@ -56,17 +169,49 @@ class Ledger:
                               "status": status, "reason": reasons.astype(str)})
         return cls(table=table)
 
+    @classmethod
+    def for_many_rows(cls, file, lines, sites, reasons, rejected, limit=CODED_ABOVE):
+        """:meth:`for_rows`, held as codes when there are more than `limit` rows."""
+        if len(lines) <= limit:
+            return cls.for_rows(file, lines, sites, reasons, rejected)
+        return cls.for_codes(CodedRows.from_rows(file, lines, sites, reasons, rejected))
+
+    @classmethod
+    def for_codes(cls, rows: CodedRows):
+        """A ledger of one file's rows held as codes (for files of millions of rows)."""
+        return cls(parts=[rows] if len(rows.lines) else [])
+
     def __add__(self, other: "Ledger") -> "Ledger":
-        return Ledger(pd.concat([self.table, other.table], ignore_index=True),
-                      self.notes + other.notes)
+        return Ledger(parts=self.parts + other.parts, notes=self.notes + other.notes)
 
     def add_reason(self, file, lines, reason: str):
         """Flag rows (by line number) of `file` with `reason`; rejected rows stay rejected."""
-        sel = (self.table["file"] == str(file)) & self.table["line"].isin(np.asarray(lines))
-        old = self.table.loc[sel, "reason"]
-        self.table.loc[sel, "reason"] = np.where(old == "", reason, old + "; " + reason)
-        ok = sel & (self.table["status"] == "accepted")
-        self.table.loc[ok, "status"] = "flagged"
+        for k, part in enumerate(self.parts):
+            if isinstance(part, CodedRows):
+                if part.file == str(file):
+                    self.parts[k] = part.with_reason(lines, reason)
+                continue
+            t = part
+            sel = (t["file"] == str(file)) & t["line"].isin(np.asarray(lines))
+            if not sel.any():
+                continue
+            t = t.copy()
+            old = t.loc[sel, "reason"]
+            t.loc[sel, "reason"] = np.where(old == "", reason, old + "; " + reason)
+            ok = sel & (t["status"] == "accepted")
+            t.loc[ok, "status"] = "flagged"
+            self.parts[k] = t
+
+    def _counts(self) -> pd.DataFrame:
+        """Rows per (file, status, reason text): columns ``file, status, reason, n``."""
+        frames = []
+        for p in self.parts:
+            if isinstance(p, CodedRows):
+                frames.append(p.counts())
+            else:
+                frames.append(p.groupby(["file", "status", "reason"]).size().rename("n")
+                              .reset_index())
+        return pd.concat(frames, ignore_index=True)
 
     def summary(self) -> pd.DataFrame:
         """Counts of rows per file and status, with a ``read`` total.
@@ -75,20 +220,23 @@ class Ledger:
         >>> led.summary().to_dict("records")
         [{'file': 'f.csv', 'read': 3, 'accepted': 1, 'flagged': 1, 'rejected': 1}]
         """
-        if self.table.empty:
+        if not self.rows():
             return pd.DataFrame(columns=["file", "read", *STATUSES])
-        counts = (self.table.groupby(["file", "status"]).size().unstack("status")
+        c = self._counts()
+        counts = (c.groupby(["file", "status"])["n"].sum().unstack("status")
                   .reindex(columns=list(STATUSES)).fillna(0).astype(int))
         counts.insert(0, "read", counts.sum(axis=1))
         return counts.reset_index()
 
     def reasons(self) -> pd.DataFrame:
         """Counts of each single reason per file and status."""
-        t = self.table[self.table["reason"] != ""]
-        if t.empty:
+        c = self._counts() if self.rows() else None
+        if c is None or not (c["reason"] != "").any():
             return pd.DataFrame(columns=["file", "status", "reason", "rows"])
+        t = c[c["reason"] != ""]
         ex = t.assign(reason=t["reason"].str.split("; ")).explode("reason")
-        return (ex.groupby(["file", "status", "reason"]).size().rename("rows").reset_index())
+        return (ex.groupby(["file", "status", "reason"])["n"].sum().rename("rows")
+                .reset_index())
 
     def check_balanced(self) -> bool:
         """True when every row has exactly one status (read = accepted+flagged+rejected)."""

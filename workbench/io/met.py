@@ -20,36 +20,14 @@ from .common import check_sites, join_reasons, unit_error
 from .ledger import Ledger
 from .table import RawTable
 
-#: variable -> (internal unit, required, long name)
-MET_VARIABLES = {
-    "wind_speed": ("m/s", True, "wind speed at wind_height"),
-    "temperature": ("K", True, "air temperature"),
-    "relative_humidity": ("1", True, "relative humidity (fraction)"),
-    "solar_radiation": ("W/m**2", True, "global solar radiation, downward"),
-    "precipitation": ("mm", True, "precipitation over the hour"),
-    "pressure": ("Pa", True, "station pressure"),
-    "cloud_cover": ("1", False, "cloud cover (fraction)"),
-    "friction_velocity": ("m/s", False, "measured friction velocity"),
-    "sensible_heat_flux": ("W/m**2", False, "measured sensible heat flux, positive upward"),
-    "surface_wet": ("1", False, "surface wetness (0 dry, 1 wet)"),
-    "snow_cover": ("1", False, "snow on the ground (0/1)"),
-}
-_UNITS_OUT = {"m/s": "m s-1", "K": "K", "1": "1", "W/m**2": "W m-2", "mm": "mm", "Pa": "Pa"}
-HOUR = np.timedelta64(3600, "s").astype("timedelta64[ns]")
+from .metvars import _UNITS_OUT, HOUR, MET_VARIABLES, convert_met  # noqa: F401 (re-exported)
 
 
 def _convert(tab: RawTable, name: str, target: str):
     raw = tab.numbers(name)
     unit = tab.unit_of(name, default="1" if target == "1" else None)
-    if name == "cloud_cover" and unit.strip().lower() in ("okta", "oktas"):
-        return raw / 8.0, unit
     try:
-        if name == "solar_radiation":
-            u, _ = parse_unit(unit)
-            if u.dimensionality == ureg.parse_units("J/m**2").dimensionality:
-                # an hourly sum of energy per area: the mean irradiance over the hour
-                return convert_plain(raw, unit, "J/m**2") / 3600.0, unit
-        return convert_plain(raw, unit, target), unit
+        return convert_met(raw, unit, name, target), unit
     except ValueError as exc:
         raise unit_error(tab, name, exc, f"a unit convertible to {target}") from None
 
@@ -75,6 +53,10 @@ def read_met(path, catalogue):
     path = Path(path)
     if path.suffix in (".nc", ".nc4", ".netcdf"):
         return _read_met_netcdf(path, catalogue)
+    from .metfast import read_met_csv_fast
+    fast = read_met_csv_fast(path, catalogue)
+    if fast is not None:        # else a file the line-by-line reader below must judge
+        return fast
     tab = RawTable.read(path)
     tab.require(["site", "time"] + [k for k, v in MET_VARIABLES.items() if v[1]])
     sites = check_sites(tab, catalogue)
@@ -139,7 +121,7 @@ def _assemble(values, sites, t, lines, path, catalogue, raw_units, empty_reason)
         empty &= np.isnan(v)
     reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, raw_units)
     reasons = np.where(empty, join_reasons([reasons, np.full(n, empty_reason, object)]), reasons)
-    ledger = Ledger.for_rows(path, lines, sites, reasons, empty)
+    ledger = Ledger.for_many_rows(path, lines, sites, reasons, empty)
     keep = ~empty
     if not keep.any():
         raise InputError("no values in any row", file=path,

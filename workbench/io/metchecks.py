@@ -59,12 +59,6 @@ def expected_station_pressure(elevation_m):
     return standard_pressure_at(np.asarray(elevation_m, float))
 
 
-def _per_site(catalogue, sites, attr: str) -> np.ndarray:
-    """A catalogue attribute of each row's site (looked up once per site) [its unit]."""
-    uniq, inv = np.unique(np.asarray(sites), return_inverse=True)
-    return np.array([getattr(catalogue[u], attr) for u in uniq], float)[inv]
-
-
 def run_row_checks(values, sites, t, catalogue, raw_units):
     """Run the per-row and per-site checks.
 
@@ -78,7 +72,13 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
     n = len(sites)
     values = {k: np.array(v, float) for k, v in values.items()}
     parts = []
-    frame = pd.DataFrame({"site": sites, "month": t.astype("datetime64[M]")})
+    # integer codes of the sites (hashed once): every check below is per site
+    codes, names = pd.factorize(np.asarray(sites, dtype=object))
+    codes = codes.astype(np.int64)
+
+    def per_site(attr):
+        return np.array([getattr(catalogue[str(u)], attr) for u in names], float)[codes]
+    frame = pd.DataFrame({"site": codes, "month": t.astype("datetime64[M]")})
 
     def mask(name, sel, reason):
         if sel.any():
@@ -104,7 +104,7 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
     # pressure: unit slips and reduction to sea level
     if "pressure" in values:
         p = values["pressure"]
-        elev = _per_site(catalogue, sites, "elevation_m")
+        elev = per_site("elevation_m")
         p_exp = expected_station_pressure(elev)
         med = frame.assign(v=p).groupby("site")["v"].transform("median").to_numpy()
         ratio = med / p_exp
@@ -120,7 +120,7 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
         sr = values["solar_radiation"]
         g = frame.assign(v=sr).groupby("site")["v"]
         smax, scount = g.transform("max").to_numpy(), g.transform("count").to_numpy()
-        lat = _per_site(catalogue, sites, "latitude")
+        lat = per_site("latitude")
         mask("solar_radiation", smax > RANGES["solar_radiation"][1],
              "solar radiation above 1500 W/m2 at this site: unit likely not W/m2 (masked)")
         mask("solar_radiation", (smax < 50) & (scount >= 24 * 60) & (np.abs(lat) < 60),
@@ -128,16 +128,16 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
     # cumulative precipitation
     if "precipitation" in values:
         pr = values["precipitation"]
-        order = np.lexsort((t, sites))
-        ps, ss = pr[order], sites[order]
+        order = np.lexsort((t, codes))
+        ps, ss = pr[order], codes[order]
         d = np.diff(ps)
         same = ss[1:] == ss[:-1]
         df = pd.DataFrame({"site": ss[1:][same], "neg": (d[same] < 0), "nz": ps[1:][same] > 0})
         stats = df.groupby("site").agg(neg=("neg", "mean"), nz=("nz", "mean"))
-        pmax = pd.Series(pr).groupby(sites).max()
+        pmax = pd.Series(pr).groupby(codes).max()
         cum_sites = [s for s in stats.index
                      if stats.loc[s, "nz"] > 0.5 and stats.loc[s, "neg"] < 0.1 and pmax[s] > 10]
-        mask("precipitation", np.isin(sites, cum_sites),
+        mask("precipitation", np.isin(codes, cum_sites),
              "precipitation looks cumulative, not hourly (masked)")
     # hard ranges
     for name, (lo, hi) in RANGES.items():
@@ -146,14 +146,14 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
             mask(name, (v < lo) | (v > hi), f"{name} outside {lo:g}..{hi:g} (masked)")
     # radiation at night
     if "solar_radiation" in values:
-        lat = _per_site(catalogue, sites, "latitude")
-        lon = _per_site(catalogue, sites, "longitude")
+        lat = per_site("latitude")
+        lon = per_site("longitude")
         mid = t - np.timedelta64(30, "m")
         elev = solar_elevation_deg(mid, lat, lon)
         night = elev < NIGHT_ELEVATION_DEG
         bad = night & (values["solar_radiation"] > NIGHT_RADIATION_MAX)
-        share = pd.Series(bad[night]).groupby(sites[night]).mean() if night.any() else pd.Series(dtype=float)
-        systematic = np.isin(sites, share.index[share > NIGHT_SHARE_HINT].tolist())
+        share = pd.Series(bad[night]).groupby(codes[night]).mean() if night.any() else pd.Series(dtype=float)
+        systematic = np.isin(codes, share.index[share > NIGHT_SHARE_HINT].to_numpy())
         flag(bad & systematic, "solar radiation at night at many hours: check utc_offset_h "
              "and whether times label the start or the end of the hour")
         flag(bad & ~systematic, "solar radiation above 25 W/m2 at night")

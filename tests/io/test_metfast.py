@@ -1,0 +1,179 @@
+"""The chunked met CSV reader gives what the line-by-line reader gives, or declines.
+
+:func:`workbench.io.metfast.read_met_csv_fast` must return the same Dataset (values
+bit for bit), the same ledger rows, counts, reasons and notes as the line reader of
+:func:`workbench.io.met.read_met`; for any file it cannot read exactly so (quotes,
+blanks, text in a number, an unknown site, a repeated hour, ...) it returns None and
+the line reader gives its located error.
+"""
+from __future__ import annotations
+
+import gzip
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+import xarray as xr
+
+import workbench.io.metfast as metfast
+from workbench.errors import InputError
+from workbench.io.ledger import CodedRows, Ledger
+from workbench.io.met import read_met
+from workbench.io.sites import read_sites
+from tiny_inputs import SITES
+
+DEMO = Path(__file__).resolve().parents[2] / "demo_data"
+
+HEAD = ("site,time,wind_speed [m/s],temperature [degC],relative_humidity [%],"
+        "solar_radiation [W/m2],precipitation [mm],pressure [hPa],cloud_cover [okta],"
+        "spare [1]\n")
+
+
+def _rows(site, start, hours, rh_scale=1.0, seed=0):
+    rng = np.random.default_rng(seed)
+    t = pd.date_range(start, periods=hours, freq="h")
+    out = []
+    for k, ti in enumerate(t):
+        rh = rng.uniform(40, 100) * rh_scale
+        out.append(f"{site},{ti:%Y-%m-%dT%H:%M},{rng.uniform(0, 9):.1f},"
+                   f"{rng.uniform(-5, 25):.2f},{rh:.3g},{max(0, rng.uniform(-200, 700)):.0f},"
+                   f"{rng.choice([0, 0, 0, 0.2, 1.4])},{rng.uniform(1000, 1020):.1f},"
+                   f"{rng.integers(0, 9)},x{k}\n")
+    return out
+
+
+@pytest.fixture()
+def cat(tmp_path):
+    (tmp_path / "s.toml").write_text(SITES)
+    return read_sites(tmp_path / "s.toml")
+
+
+def _line_reader(monkeypatch, path, cat):
+    with monkeypatch.context() as m:
+        m.setattr(metfast, "read_met_csv_fast", lambda *a, **k: None)
+        return read_met(path, cat)
+
+
+def assert_same(a, b):
+    (ds1, l1), (ds2, l2) = a, b
+    xr.testing.assert_identical(ds1, ds2)
+    for v in ds1.data_vars:
+        np.testing.assert_array_equal(ds1[v].values, ds2[v].values)   # NaN where NaN
+    pd.testing.assert_frame_equal(l1.table, l2.table)
+    pd.testing.assert_frame_equal(l1.summary(), l2.summary())
+    pd.testing.assert_frame_equal(l1.reasons(), l2.reasons(), check_dtype=False)
+    assert l1.notes == l2.notes
+
+
+def test_demo_met_as_the_line_reader(monkeypatch):
+    cat = read_sites(DEMO / "sites.toml")
+    fast = metfast.read_met_csv_fast(DEMO / "met.csv.gz", cat)
+    assert fast is not None
+    assert_same(fast, _line_reader(monkeypatch, DEMO / "met.csv.gz", cat))
+    assert (fast[1].summary()["flagged"] > 0).all()      # the demo's problems are flagged
+
+
+@pytest.mark.parametrize("chunk", [300, 4096, 1 << 20])
+def test_interleaved_sites_flags_and_empty_rows(tmp_path, cat, monkeypatch, chunk):
+    """Sites interleaved, RH written as a fraction under % at one site (masked), an empty
+    row (rejected), a column not used, start-of-hour labels, a time with an offset and
+    no newline at the end: in chunks of any size."""
+    a = _rows("alpha", "2020-03-01T00:00", 24 * 40)
+    b = _rows("beta", "2020-03-05T00:00", 24 * 35, rh_scale=0.01, seed=1)
+    rows = [r for pair in zip(a, b) for r in pair] + a[len(b):]
+    rows[6] = "alpha,2020-03-01T03:00,,,,,,,,\n"                      # alpha's 4th hour, empty
+    rows[9] = rows[9].replace("2020-03-05T04:00", "2020-03-05T05:00+01:00")
+    text = "# time_label: start\n# station: invented\n" + HEAD + "".join(rows)
+    p = tmp_path / "met.csv.gz"
+    p.write_bytes(gzip.compress(text.rstrip("\n").encode()))
+    fast = metfast.read_met_csv_fast(p, cat, chunk_bytes=chunk)
+    assert fast is not None
+    assert_same(fast, _line_reader(monkeypatch, p, cat))
+    ds, led = fast
+    reasons = set(led.reasons()["reason"])
+    assert any("looks like a fraction" in r for r in reasons)
+    assert "no values in the row" in reasons
+    assert any("columns not used: spare [1]" in n for n in led.notes)
+    # SI brochure: 0 degC = 273.15 K; an okta is an eighth of the sky (WMO)
+    raw = pd.read_csv(p, comment="#")
+    first = raw.iloc[0]
+    t0 = pd.Timestamp(first["time"])   # start label: +1 h to the end; UTC+1: -1 h to UTC
+    got = ds.sel(site="alpha", time=t0)
+    assert float(got["temperature"]) == pytest.approx(first["temperature [degC]"] + 273.15,
+                                                      rel=1e-15)
+    assert float(got["cloud_cover"]) == first["cloud_cover [okta]"] / 8.0
+    assert float(got["pressure"]) == pytest.approx(first["pressure [hPa]"] * 100.0, rel=1e-15)
+
+
+@pytest.mark.parametrize("change, message", [
+    (lambda t: t.replace("\nalpha,", '\n"alpha",', 1), None),
+    (lambda t: t.replace("alpha,", "alpha, ", 1), None),
+    (lambda t: t.replace("\nalpha,", "\n\nalpha,", 1), None),
+    (lambda t: t.replace(",1010.5,", ",ten,", 1), "text in a numeric column"),
+    (lambda t: t.replace("\nbeta,", "\ngamma,", 1), "site not in the catalogue"),
+    (lambda t: t.replace("T03:00", "T02:00", 1), "duplicate hourly timestamp"),
+    (lambda t: t.replace("T05:00", "T05:30", 1), "timestamp not on the hour"),
+    (lambda t: t.replace("T05:00", "2020-13-45", 1), "not an ISO 8601 timestamp"),
+    (lambda t: t.replace(",1010.5,", ",inf,1010.5,", 1), "malformed CSV row"),
+    (lambda t: t.replace(",1010.5,", ",1e999,", 1), "not a finite number"),
+    (lambda t: t.replace(",1010.5,", ",True,", 1), "text in a numeric column"),
+    (lambda t: t.replace(",1010.5,", ",-nan,", 1), "text in a numeric column"),
+    (lambda t: t.replace("[hPa]", "[parsec]"), "unit"),
+    (lambda t: t.replace("wind_speed", "wind"), "missing required column"),
+    (lambda t: t.replace(",x3\n", ",x3,\n", 1), "malformed CSV row"),
+])
+def test_odd_files_go_to_the_line_reader(tmp_path, cat, monkeypatch, change, message):
+    text = HEAD + "alpha,2020-02-28T00:00,4.6,2.3,95,0,0.0,1010.5,0,x\n" + "".join(
+        _rows("alpha", "2020-03-01T00:00", 48) + _rows("beta", "2020-03-01", 48, seed=2))
+    p = tmp_path / "met.csv"
+    p.write_text(change(text))
+    assert metfast.read_met_csv_fast(p, cat) is None
+    if message is None:
+        assert_same(read_met(p, cat), _line_reader(monkeypatch, p, cat))
+    else:
+        with pytest.raises(InputError, match=message) as err:
+            read_met(p, cat)
+        assert str(p) in str(err.value)
+
+
+def _both(rows):
+    file, lines, sites, reasons, rejected = rows
+    eager = Ledger.for_rows(file, lines, sites, reasons, rejected)
+    codes_s, names_s = pd.factorize(np.asarray(sites, dtype=object))
+    codes_r, names_r = pd.factorize(np.asarray(reasons, dtype=object))
+    coded = Ledger.for_codes(CodedRows(file, np.asarray(lines), codes_s, names_s, codes_r,
+                                       np.asarray(names_r, dtype=object), np.asarray(rejected)))
+    return eager, coded
+
+
+def test_coded_ledger_as_the_table():
+    rows = ("m.csv", [2, 3, 4, 5, 6], ["a", "a", "b", "b", "b"],
+            ["", "x", "x; y", "", "no values"], [False, False, False, False, True])
+    eager, coded = _both(rows)
+    other = Ledger.for_rows("p.csv", [2, 3], ["a", "b"], ["", "z"], [False, False])
+    for e, c in ((eager, coded), (other + eager, other + coded), (eager + other, coded + other)):
+        pd.testing.assert_frame_equal(e.table, c.table)
+        pd.testing.assert_frame_equal(e.summary(), c.summary())
+        pd.testing.assert_frame_equal(e.reasons(), c.reasons(), check_dtype=False)
+        e.add_reason("m.csv", [3, 5, 6], "far from the gauge")
+        c.add_reason("m.csv", [3, 5, 6], "far from the gauge")
+        pd.testing.assert_frame_equal(e.table, c.table)
+        pd.testing.assert_frame_equal(e.reasons(), c.reasons(), check_dtype=False)
+        assert c.check_balanced() and c.rows() == e.rows()
+    assert coded.table.loc[coded.table["line"] == 6, "status"].item() == "rejected"
+    assert Ledger().summary().empty and Ledger().reasons().empty
+
+
+def test_large_ledgers_as_codes_equal_the_table():
+    """A reader's ledger of many rows (the line reader, NetCDF) is held as codes."""
+    rng = np.random.default_rng(3)
+    n = 1000
+    rows = ("m.nc", np.arange(n) + 1, rng.choice(["a", "b", "c"], n),
+            rng.choice(["", "", "x", "x; y"], n).astype(object), rng.random(n) < 0.1)
+    small = Ledger.for_rows(*rows)
+    coded = Ledger.for_many_rows(*rows, limit=10)
+    assert isinstance(coded.parts[0], CodedRows)
+    pd.testing.assert_frame_equal(small.table, coded.table)
+    pd.testing.assert_frame_equal(small.summary(), coded.summary())
+    pd.testing.assert_frame_equal(small.reasons(), coded.reasons(), check_dtype=False)
