@@ -87,7 +87,8 @@ def main(argv=None):
         "snow_cover")]].load()
     surf = cat.surfaces().sel(site=[args.site])
     surf = surf.sel(receptor=surf["receptor"].values[surf["active"].values[0]])  # its own
-    opt = DryOptions(gases=("SO2",), particles=("pSO4",), components=False)
+    opt = DryOptions(gases=("SO2",), particles=("pSO4",), components=False,
+                     ustar_transfer="blending_height")  # the references' transfer
     kernel = rc.numba_kernel()
     t = time.perf_counter()
     small = rc.prepare(met.isel(time=slice(0, 48)), surf, opt,

@@ -75,8 +75,10 @@ def small_case(tmp_path_factory):
             | ((t >= np.datetime64("2021-07-01T01")) & (t < np.datetime64("2021-07-05"))))
     met = met.isel(time=np.flatnonzero(keep)).load()
     surf = cat.surfaces()
-    # a low Ra cap (an allowed option value) so that the cap branch is reached
-    opt = DryOptions(gases=("SO2",), particles=("pSO4",), components=False, ra_cap=150.0)
+    # a low Ra cap (an allowed option value) so that the cap branch is reached; the
+    # references implement the blending-height transfer of u*, so it is named here
+    opt = DryOptions(gases=("SO2",), particles=("pSO4",), components=False, ra_cap=150.0,
+                     ustar_transfer="blending_height")
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", RuntimeWarning)
         eng = velocities(met, surf, opt)
