@@ -87,7 +87,8 @@ def lab(tmp_path_factory, token):
     two = write_demo_subset(tmp / "two", ("ridge", "mere"), 2021, 2021)
     params = {"site_budget": f'SCENARIO = r"{one}"\nSITE = "ridge"\nYEARS = (2021, 2021)',
               "sensitivity": f'SCENARIO = r"{one}"\nSITE = "ridge"\nYEARS = (2021, 2021)',
-              "network_overview": f'SCENARIO = r"{two}"\nYEARS = (2021, 2021)'}
+              "network_overview": f'SCENARIO = r"{two}"\nYEARS = (2021, 2021)',
+              "grid_maps": "SCENARIO = None\nPERIOD = 0"}
     for name, text in params.items():
         nb = nbformat.read(NOTEBOOKS / f"{name}.ipynb", as_version=4)
         for c in nb.cells:              # a user's run of the notebook may be saved in it
@@ -342,4 +343,32 @@ def test_network_overview_fits_a_1600_px_window(lab, token, page, tmp_path):
     assert [p for p in edges["parts"] if p[1] > edges["area"] + 1] == [], edges
     assert edges["scroll"] <= 1, edges
     _screenshot(page, tmp_path, "network_overview")
+    _close_sessions(lab, token)
+
+
+def test_grid_maps_in_a_real_browser(lab, token, page, tmp_path):
+    """Both maps of the demo grid are drawn: one colour per cell, finite values, the
+    colour bar titled with the unit."""
+    _run_all(page, lab, token, "grid_maps")
+    page.wait_for_function(
+        "() => document.querySelectorAll('.jp-OutputArea .js-plotly-plot').length >= 2")
+    _no_javascript_errors(page)
+    maps = page.evaluate(
+        "() => [...document.querySelectorAll('.jp-OutputArea .js-plotly-plot')].map(el => "
+        "({type: el.data[0].type, rows: el.data[0].z.length, cols: el.data[0].z[0].length, "
+        "finite: el.data[0].z.flat().filter(v => v !== null && isFinite(v)).length, "
+        "title: JSON.stringify((el.layout.coloraxis || {}).colorbar || el.data[0].colorbar || {}), "
+        "cells: el.querySelectorAll('.heatmaplayer image, .heatmaplayer path').length}))")
+    assert len(maps) == 2, maps
+    for m in maps:
+        assert m["rows"] == 20 and m["cols"] == 20, m
+        assert m["finite"] > 300, m                   # land cells have values
+        assert m["cells"] > 0, m                      # something is drawn
+    page.set_viewport_size({"width": VIEWPORT["width"], "height": 2400})
+    shot = tmp_path / "grid_maps.png"
+    page.screenshot(path=str(shot), full_page=True)
+    assert shot.stat().st_size > 10_000
+    if os.environ.get("WB_SCREENSHOTS"):
+        Path(os.environ["WB_SCREENSHOTS"]).mkdir(parents=True, exist_ok=True)
+        shutil.copy(shot, Path(os.environ["WB_SCREENSHOTS"]) / shot.name)
     _close_sessions(lab, token)
