@@ -10,6 +10,15 @@ factor R_1 = exp(-St^1/2) (R_1 = 1 on wet surfaces).  Particles first grow with
 relative humidity (Gerber 1985).  The mass-weighted Vd of a log-normal mass
 distribution is integrated with Gauss-Hermite quadrature in ln d_p.
 
+One implementation: R_s and V_d are computed only by
+:class:`workbench.drydep.particles_numpy.ZhangSurface`; :func:`surface_resistance`,
+:func:`particle_deposition_velocity` (one node of weight 1) and
+:func:`mass_weighted_velocities` (numpy directly, xarray and dask chunk by chunk
+through ``xarray.apply_ufunc``) call it.  The elementary functions here (slip
+correction, settling, Brownian diffusivity, wet diameter and density) are the
+documented forms of what ZhangSurface computes with the air factors taken out of
+the size loop; a test holds the two equal.
+
 References
 ----------
 Zhang, L., Gong, S., Padro, J. and Barrie, L. (2001), A size-segregated particle dry
@@ -26,10 +35,11 @@ import numpy as np
 import xarray as xr
 
 from ..constants import BOLTZMANN, GRAVITY, WATER_DENSITY
-from ..surface._array import aligned, block_of, block_slices, is_xarray, where
-from ..surface.air import dynamic_viscosity, kinematic_viscosity, mean_free_path
+from ..surface._array import aligned, block_of, block_slices, is_xarray
+from ..surface.air import dynamic_viscosity, mean_free_path
 # the constants, table and nodes of the scheme live in zhang_tables (shared with the
-# numpy fast path, which this module imports: imports go one way); re-exported here
+# implementation in particles_numpy, which this module imports: imports go one way);
+# re-exported here
 from .particles_numpy import ZhangSurface
 from .zhang_tables import (_ROW, _SLIP_EXP_MIN, EPSILON_0, GERBER, GROWTH_RH_MAX,  # noqa: F401
                            KAPPA, M_PER_CM, M_PER_MM, SLIP_A, SLIP_B, SLIP_C, ZHANG_LUC, _hermgauss,
@@ -405,13 +415,14 @@ def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, p
 
     Notes
     -----
-    For plain numpy input the Zhang et al. (2001) equations of
-    :func:`particle_deposition_velocity` are rearranged: what does not depend on
-    the mode (air, land-use values, the factors of St, E_IN and R_1) is computed
-    once for all modes, what depends on the particle only (grown diameter and
-    density, C_c, v_g, Sc) once per node on (site, time) without the receptor axis
-    (see :class:`workbench.drydep.particles_numpy.ZhangSurface`).  The result equals the node-by-node sum to
-    rounding (tests/drydep/test_drydep_particles.py).  Large arrays are computed in
+    The one implementation of the Zhang et al. (2001) equations,
+    :class:`workbench.drydep.particles_numpy.ZhangSurface` (also behind
+    :func:`particle_deposition_velocity` and :func:`surface_resistance`): what does
+    not depend on the mode (air, land-use values, the factors of St, E_IN and R_1)
+    is computed once for all modes, what depends on the particle only (grown
+    diameter and density, C_c, v_g, Sc) once per node on (site, time) without the
+    receptor axis.  A test holds it to an independent node-by-node transcription
+    of the paper's equations (tests/drydep/test_drydep_particles.py).  Large arrays are computed in
     blocks of about :data:`BLOCK_ELEMENTS` elements along sites and hours (the same
     numbers; the work arrays stay in the processor's cache).  xarray and dask input
     go through the same code chunk by chunk (``xarray.apply_ufunc`` with

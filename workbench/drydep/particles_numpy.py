@@ -1,11 +1,14 @@
-"""The numpy fast path of the Zhang et al. (2001) mass-weighted particle Vd.
+"""The one implementation of the Zhang et al. (2001) particle R_s and V_d.
 
-:func:`workbench.drydep.particles.mass_weighted_velocities` uses :class:`ZhangSurface`
-for plain numpy input: the same equations as
-:func:`workbench.drydep.particles.particle_deposition_velocity`, rearranged so that
-what does not depend on the particle size is computed once and what depends on the
-size only is computed without the receptor axis.  A test holds it to the node-by-node
-sum of the public functions (tests/drydep/test_drydep_particles.py).
+:class:`ZhangSurface` computes R_s (:meth:`ZhangSurface.resistance`), V_d of one dry
+diameter (:meth:`ZhangSurface.velocity`) and the mass-weighted V_d of a log-normal
+mode (:meth:`ZhangSurface.mass_weighted`); the public functions of
+:mod:`workbench.drydep.particles` call it for numpy input and, chunk by chunk
+(``xarray.apply_ufunc``), for xarray and dask input.  The equations are arranged so
+that what does not depend on the particle size is computed once and what depends on
+the size only is computed without the receptor axis.  A test holds it to an
+independent node-by-node transcription of the paper's equations
+(tests/drydep/test_drydep_particles.py).
 Units: SI (m, kg m-3, K, Pa, m s-1, s m-1).
 """
 from __future__ import annotations
@@ -20,10 +23,10 @@ from .zhang_tables import (_ROW, _SLIP_EXP_MIN, EPSILON_0, GERBER, GROWTH_RH_MAX
 
 
 class ZhangSurface:
-    """The mode-independent part of Zhang et al. (2001) for numpy input.
+    """Zhang et al. (2001) over given surfaces and air, for numpy input.
 
-    Built once per call of :func:`mass_weighted_velocities`; holds, each with the
-    least shape it needs (what depends only on the air has the shape of the
+    Built once per call (per block or chunk) of the public functions; holds, each
+    with the least shape it needs (what depends only on the air has the shape of the
     temperature, pressure and humidity: no receptor axis):
 
     * air factors: 2 lambda [m] and -1.1/(2 lambda) [m-1] of the slip correction,
