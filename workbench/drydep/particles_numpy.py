@@ -231,7 +231,10 @@ class ZhangSurface:
                     shape = np.broadcast_shapes(self.shape, vg.shape)
                     e, st, x = (self._work if shape == self.shape
                                 else [np.empty(shape) for _ in range(3)])
-                    total, vg_sum, sqrt_vg = np.zeros(shape), np.zeros(vg.shape), np.empty(vg.shape)
+                    total, vg_sum = np.zeros(shape), np.zeros(vg.shape)
+                    # the sixth air work array is free when node() used the shared ones
+                    sqrt_vg = (self._air_work[5] if vg is self._air_work[2]
+                               else np.empty(vg.shape))
                 x = self._resistance(vg, log_sc, d2, e, st, x, sqrt_vg)
                 x += self.ra
                 np.divide(w, x, out=x)                          # w / (R_a + R_s)
