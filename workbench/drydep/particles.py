@@ -10,6 +10,15 @@ factor R_1 = exp(-St^1/2) (R_1 = 1 on wet surfaces).  Particles first grow with
 relative humidity (Gerber 1985).  The mass-weighted Vd of a log-normal mass
 distribution is integrated with Gauss-Hermite quadrature in ln d_p.
 
+One implementation: R_s and V_d are computed only by
+:class:`workbench.drydep.particles_numpy.ZhangSurface`; :func:`surface_resistance`,
+:func:`particle_deposition_velocity` (one node of weight 1) and
+:func:`mass_weighted_velocities` (numpy directly, xarray and dask chunk by chunk
+through ``xarray.apply_ufunc``) call it.  The elementary functions here (slip
+correction, settling, Brownian diffusivity, wet diameter and density) are the
+documented forms of what ZhangSurface computes with the air factors taken out of
+the size loop; a test holds the two equal.
+
 References
 ----------
 Zhang, L., Gong, S., Padro, J. and Barrie, L. (2001), A size-segregated particle dry
@@ -26,10 +35,11 @@ import numpy as np
 import xarray as xr
 
 from ..constants import BOLTZMANN, GRAVITY, WATER_DENSITY
-from ..surface._array import aligned, block_of, block_slices, is_xarray, where
-from ..surface.air import dynamic_viscosity, kinematic_viscosity, mean_free_path
+from ..surface._array import aligned, block_of, block_slices, is_xarray
+from ..surface.air import dynamic_viscosity, mean_free_path
 # the constants, table and nodes of the scheme live in zhang_tables (shared with the
-# numpy fast path, which this module imports: imports go one way); re-exported here
+# implementation in particles_numpy, which this module imports: imports go one way);
+# re-exported here
 from .particles_numpy import ZhangSurface
 from .zhang_tables import (_ROW, _SLIP_EXP_MIN, EPSILON_0, GERBER, GROWTH_RH_MAX,  # noqa: F401
                            KAPPA, M_PER_CM, M_PER_MM, SLIP_A, SLIP_B, SLIP_C, ZHANG_LUC, _hermgauss,
@@ -160,36 +170,6 @@ def wet_density(dry_diameter, wet_diameter_, dry_density):
     return dry_density * f + WATER_DENSITY * (1.0 - f)
 
 
-def _luc_values(land_use, seasonal_category, receptor_dim):
-    """A [m] (NaN: smooth surface), alpha [-], gamma [-] and the smooth mask by receptor and hour.
-
-    Parameters
-    ----------
-    land_use : str or sequence of str
-        Our classes.
-    seasonal_category : array_like
-        1-5 (NaN unknown). [-]
-    receptor_dim : str
-        Dimension of `land_use` when `seasonal_category` is a DataArray.
-    """
-    a_tab, alpha, gamma, smooth = _luc_table()
-    cat = seasonal_category
-    col = where(np.isfinite(cat), cat, 1.0) - 1.0
-    if is_xarray(cat):
-        dims = (receptor_dim,)
-        rows = xr.DataArray(_rows(list(land_use)), dims=dims)
-        flat = a_tab.ravel()
-        idx = (rows * a_tab.shape[1] + col).astype(int)
-        a = xr.apply_ufunc(lambda i: flat[i], idx, dask="parallelized", output_dtypes=[float])
-        a = xr.where(np.isfinite(cat), a, np.nan)
-        r = rows.values
-        return (a, xr.DataArray(alpha[r], dims=dims), xr.DataArray(gamma[r], dims=dims),
-                xr.DataArray(smooth[r], dims=dims))
-    r = _rows(land_use)
-    c = np.asarray(col).astype(int)
-    return where(np.isfinite(cat), a_tab[r, c], np.nan), alpha[r], gamma[r], smooth[r]
-
-
 def surface_resistance(diameter, density, ustar, temperature, pressure, land_use,
                        seasonal_category, wet=0.0, receptor_dim="receptor"):
     """Surface resistance R_s of particles, Zhang et al. (2001) [s m-1].
@@ -219,25 +199,15 @@ def surface_resistance(diameter, density, ustar, temperature, pressure, land_use
 
     Notes
     -----
-    Zhang et al. (2001), Eqs. (5)-(8): St = v_g u*/(g A) over vegetation and
-    v_g u*^2/nu over smooth surfaces (no A; E_IN = 0 there).
+    Zhang et al. (2001), Eqs. (5)-(9): St = v_g u*/(g A) over vegetation and
+    v_g u*^2/nu over smooth surfaces (no A; E_IN = 0 there).  Computed by
+    :meth:`ZhangSurface.resistance <workbench.drydep.particles_numpy.ZhangSurface.resistance>`,
+    the one implementation of the scheme (xarray and dask input through
+    ``xarray.apply_ufunc``).
     """
-    a, alpha, gamma, smooth = _luc_values(land_use, seasonal_category, receptor_dim)
-    vg = settling_velocity(diameter, density, temperature, pressure)
-    nu = kinematic_viscosity(temperature, pressure)
-    sc = nu / brownian_diffusivity(diameter, temperature, pressure)
-    e_b = sc ** (-gamma)
-    st_veg = vg * ustar / (GRAVITY * where(smooth, 1.0, a))
-    st_smooth = vg * ustar ** 2 / nu
-    st = where(smooth, st_smooth, st_veg)
-    e_im = (st / (alpha + st)) ** 2
-    e_in = where(smooth, 0.0, 0.5 * (diameter / where(smooth, 1.0, a)) ** 2)
-    water = _rows(land_use) == _rows("water") if not is_xarray(seasonal_category) else \
-        xr.DataArray(np.array([n == "water" for n in land_use]), dims=(receptor_dim,))
-    r1 = where((wet > 0) | water, 1.0, np.exp(-np.sqrt(st)))
-    r1 = r1 + where(np.isnan(wet), np.nan, 0.0)
-    rs = 1.0 / (EPSILON_0 * ustar * (e_b + e_im + e_in) * r1)
-    return rs + where(np.isnan(seasonal_category), np.nan, 0.0)
+    args = (0.0, ustar, 0.0, temperature, pressure, seasonal_category, wet)
+    return _through_zhang(lambda arrays, land, sizes: _surface(arrays, land).resistance(*sizes),
+                          args, land_use, receptor_dim, (diameter, density))
 
 
 def particle_deposition_velocity(dry_diameter, dry_density, relative_humidity, ustar, ra,
@@ -276,14 +246,15 @@ def particle_deposition_velocity(dry_diameter, dry_density, relative_humidity, u
     -----
     .. math:: V_d = v_g + 1/(R_a + R_s)
 
-    Zhang et al. (2001), Eq. (1), with the grown diameter and density.
+    Zhang et al. (2001), Eq. (1), with the grown diameter and density: one node of
+    weight 1 of :meth:`ZhangSurface.velocity
+    <workbench.drydep.particles_numpy.ZhangSurface.velocity>`, the implementation
+    that :func:`mass_weighted_velocities` sums over the size nodes.
     """
-    dw = wet_diameter(dry_diameter, relative_humidity, growth)
-    rho = wet_density(dry_diameter, dw, dry_density)
-    vg = settling_velocity(dw, rho, temperature, pressure)
-    rs = surface_resistance(dw, rho, ustar, temperature, pressure, land_use,
-                            seasonal_category, wet, receptor_dim)
-    return vg + 1.0 / (ra + rs)
+    args = (relative_humidity, ustar, ra, temperature, pressure, seasonal_category, wet)
+    return _through_zhang(
+        lambda arrays, land, sizes: _surface(arrays, land).velocity(*sizes, growth),
+        args, land_use, receptor_dim, (dry_diameter, dry_density))
 
 
 def mass_weighted_velocity(mode, relative_humidity, ustar, ra, temperature, pressure, land_use,
@@ -322,9 +293,8 @@ def mass_weighted_velocity(mode, relative_humidity, ustar, ra, temperature, pres
     .. math:: \\bar V_d = \\int V_d(d_p)\\,\\frac{dM}{d\\ln d_p}\\,d\\ln d_p \\Big/ M
               \\approx \\sum_i w_i V_d(d_i)
 
-    Plain numpy input goes through :func:`mass_weighted_velocities` (the same
-    equations, arranged for speed); xarray or dask input sums
-    :func:`particle_deposition_velocity` node by node.
+    Computed by :func:`mass_weighted_velocities` (one implementation for numpy,
+    xarray and dask input).
     """
     return mass_weighted_velocities((mode,), relative_humidity, ustar, ra, temperature, pressure,
                                     land_use, seasonal_category, wet, nodes, receptor_dim)[0]
@@ -344,6 +314,80 @@ def _is_numpy(*args) -> bool:
     """
     return not is_xarray(*args) and not any(hasattr(a, "dask") or hasattr(a, "chunks")
                                             for a in args)
+
+
+def _surface(arrays, land_use):
+    """:class:`ZhangSurface` of `arrays` (rh, u*, R_a, T, p, category, wet) and `land_use`."""
+    return ZhangSurface(*arrays[:5], land_use, *arrays[5:])
+
+
+#: Names of the rows of :data:`ZHANG_LUC` (land use goes to dask chunks as row numbers).
+_LUC_NAMES = np.array(list(ZHANG_LUC), dtype=object)
+
+
+def _through_zhang(compute, args, land_use, receptor_dim, sizes=(), n_modes=None):
+    """``compute(arrays, land_use, sizes)`` on numpy input, or chunk by chunk on xarray/dask.
+
+    Parameters
+    ----------
+    compute : callable
+        Takes the list of numpy `args`, the land use (str or array of class names)
+        and the tuple `sizes`; returns a numpy array (with a last axis of `n_modes`
+        when that is given).
+    args : sequence of array_like
+        rh [1], u* [m s-1], R_a [s m-1], T [K], p [Pa], seasonal category [-], wet [0/1].
+    land_use : str or sequence of str
+        Our classes, along `receptor_dim` for xarray input.
+    receptor_dim : str
+    sizes : tuple of array_like
+        Diameter [m] and density [kg m-3], when `compute` takes them.
+    n_modes : int, optional
+        Length of the last axis of what `compute` returns.
+
+    Returns
+    -------
+    array_like
+        numpy for numpy input; a DataArray (dask-backed for dask input) for xarray
+        input; a dask array for dask arrays.
+
+    Notes
+    -----
+    xarray and dask input go through ``xarray.apply_ufunc(..., dask="parallelized")``:
+    the same numpy code on each chunk, element-wise, so the same numbers as in memory.
+    """
+    if _is_numpy(*args, *sizes):
+        return compute([np.asarray(a, dtype=float) for a in args], land_use, sizes)
+    lazy = list(args) + list(sizes)
+    raw = not is_xarray(*lazy)
+    if isinstance(land_use, str):
+        rows = None
+    elif is_xarray(land_use):
+        rows = land_use.copy(data=_rows(land_use.values))
+    elif raw:
+        rows = np.asarray(_rows(land_use))
+    else:
+        rows = xr.DataArray(np.asarray(_rows(list(land_use))), dims=(receptor_dim,))
+    if rows is not None:
+        lazy.append(rows)
+    if raw:  # dask arrays without dimension names: broadcast, then name the axes
+        import dask.array as dsa
+        lazy = dsa.broadcast_arrays(*lazy)
+        dims = tuple(f"axis_{i}" for i in range(lazy[0].ndim))
+        lazy = [xr.DataArray(a, dims=dims) for a in lazy]
+    n_args = len(args)
+
+    def block(*data):
+        land = land_use if rows is None else _LUC_NAMES[data[-1]]
+        return compute(list(data[:n_args]), land, data[n_args:n_args + len(sizes)])
+
+    extra = {}
+    if n_modes is not None:
+        extra = dict(output_core_dims=[["zhang_mode"]],
+                     dask_gufunc_kwargs={"output_sizes": {"zhang_mode": n_modes}})
+    out = xr.apply_ufunc(block, *lazy, dask="parallelized", output_dtypes=[float], **extra)
+    if raw:
+        return out.transpose(*dims, ...).data
+    return out
 
 
 def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, pressure,
@@ -371,30 +415,31 @@ def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, p
 
     Notes
     -----
-    For plain numpy input the Zhang et al. (2001) equations of
-    :func:`particle_deposition_velocity` are rearranged: what does not depend on
-    the mode (air, land-use values, the factors of St, E_IN and R_1) is computed
-    once for all modes, what depends on the particle only (grown diameter and
-    density, C_c, v_g, Sc) once per node on (site, time) without the receptor axis
-    (see :class:`workbench.drydep.particles_numpy.ZhangSurface`).  The result equals the node-by-node sum to
-    rounding (tests/drydep/test_drydep_particles.py).  Large arrays are computed in
+    The one implementation of the Zhang et al. (2001) equations,
+    :class:`workbench.drydep.particles_numpy.ZhangSurface` (also behind
+    :func:`particle_deposition_velocity` and :func:`surface_resistance`): what does
+    not depend on the mode (air, land-use values, the factors of St, E_IN and R_1)
+    is computed once for all modes, what depends on the particle only (grown
+    diameter and density, C_c, v_g, Sc) once per node on (site, time) without the
+    receptor axis.  A test holds it to an independent node-by-node transcription
+    of the paper's equations (tests/drydep/test_drydep_particles.py).  Large arrays are computed in
     blocks of about :data:`BLOCK_ELEMENTS` elements along sites and hours (the same
     numbers; the work arrays stay in the processor's cache).  xarray and dask input
-    take the node-by-node sum itself.
+    go through the same code chunk by chunk (``xarray.apply_ufunc`` with
+    ``dask="parallelized"``).
     """
     args = (relative_humidity, ustar, ra, temperature, pressure, seasonal_category, wet)
     if not _is_numpy(*args):
-        out = []
-        for mode in modes:
-            diams, weights = lognormal_nodes(mode.mmd, mode.gsd, nodes)
-            total = 0.0
-            for d, w in zip(diams, weights):
-                total = total + w * particle_deposition_velocity(
-                    d, mode.density, relative_humidity, ustar, ra, temperature, pressure,
-                    land_use, seasonal_category, wet, mode.growth, receptor_dim)
-            out.append(total)
-        return out
-    arrays = [np.asarray(a, dtype=float) for a in args]
+        stacked = _through_zhang(
+            lambda arrays, land, _: np.stack(_numpy_velocities(modes, arrays, land, nodes), -1),
+            args, land_use, receptor_dim, (), n_modes=len(modes))
+        return [stacked[..., i] for i in range(len(modes))]
+    return _numpy_velocities(modes, args, land_use, nodes)
+
+
+def _numpy_velocities(modes, arrays, land_use, nodes):
+    """:func:`mass_weighted_velocities` of numpy `arrays` (the order of its `args`) [m s-1]."""
+    arrays = [np.asarray(a, dtype=float) for a in arrays]
     land = land_use if isinstance(land_use, str) else np.asarray(land_use, dtype=object)
     shape = np.broadcast_shapes(*(a.shape for a in arrays),
                                 () if isinstance(land, str) else land.shape)

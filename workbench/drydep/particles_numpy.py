@@ -1,11 +1,14 @@
-"""The numpy fast path of the Zhang et al. (2001) mass-weighted particle Vd.
+"""The one implementation of the Zhang et al. (2001) particle R_s and V_d.
 
-:func:`workbench.drydep.particles.mass_weighted_velocities` uses :class:`ZhangSurface`
-for plain numpy input: the same equations as
-:func:`workbench.drydep.particles.particle_deposition_velocity`, rearranged so that
-what does not depend on the particle size is computed once and what depends on the
-size only is computed without the receptor axis.  A test holds it to the node-by-node
-sum of the public functions (tests/drydep/test_drydep_particles.py).
+:class:`ZhangSurface` computes R_s (:meth:`ZhangSurface.resistance`), V_d of one dry
+diameter (:meth:`ZhangSurface.velocity`) and the mass-weighted V_d of a log-normal
+mode (:meth:`ZhangSurface.mass_weighted`); the public functions of
+:mod:`workbench.drydep.particles` call it for numpy input and, chunk by chunk
+(``xarray.apply_ufunc``), for xarray and dask input.  The equations are arranged so
+that what does not depend on the particle size is computed once and what depends on
+the size only is computed without the receptor axis.  A test holds it to an
+independent node-by-node transcription of the paper's equations
+(tests/drydep/test_drydep_particles.py).
 Units: SI (m, kg m-3, K, Pa, m s-1, s m-1).
 """
 from __future__ import annotations
@@ -20,10 +23,10 @@ from .zhang_tables import (_ROW, _SLIP_EXP_MIN, EPSILON_0, GERBER, GROWTH_RH_MAX
 
 
 class ZhangSurface:
-    """The mode-independent part of Zhang et al. (2001) for numpy input.
+    """Zhang et al. (2001) over given surfaces and air, for numpy input.
 
-    Built once per call of :func:`mass_weighted_velocities`; holds, each with the
-    least shape it needs (what depends only on the air has the shape of the
+    Built once per call (per block or chunk) of the public functions; holds, each
+    with the least shape it needs (what depends only on the air has the shape of the
     temperature, pressure and humidity: no receptor axis):
 
     * air factors: 2 lambda [m] and -1.1/(2 lambda) [m-1] of the slip correction,
@@ -90,7 +93,8 @@ class ZhangSurface:
         rebound = np.where((wet > 0) | (rows == _ROW["water"]), 0.0, 1.0)
         self.sqrt_st_per_vg_rebound = np.sqrt(self.st_per_vg * rebound)
         self.eps_ustar = EPSILON_0 * us
-        self.ra = ra + np.where(np.isnan(wet) | np.isnan(cat), np.nan, 0.0)
+        self.unknown = np.where(np.isnan(wet) | np.isnan(cat), np.nan, 0.0)
+        self.ra = ra + self.unknown
         self._air_work = [np.empty(self.air_shape) for _ in range(6)]
         self._work = [np.empty(self.shape) for _ in range(3)]
 
@@ -99,33 +103,39 @@ class ZhangSurface:
 
         Parameters
         ----------
-        dry_diameter : float
+        dry_diameter : float or array_like
             [m]
-        dry_density : float
+        dry_density : float or array_like
             [kg m-3]
         growth : str
-            Growth law (see :func:`wet_diameter`).
+            Growth law (see :func:`workbench.drydep.particles.wet_diameter`).
 
         Returns
         -------
         vg : numpy.ndarray
-            Settling velocity v_g, shape of the air [m s-1].
+            Settling velocity v_g, shape of the air (broadcast with the diameter and
+            density when these are arrays) [m s-1].
         log_sc : numpy.ndarray
             ln of the particle's Schmidt number nu / D_B [-].
         d2 : numpy.ndarray
             Square of the grown diameter [m2].
 
-        The three arrays are work arrays, overwritten by the next call.
+        For a scalar diameter and density the three arrays are work arrays,
+        overwritten by the next call.
 
         Notes
         -----
-        Gerber (1985) or kappa-Koehler growth as :func:`wet_diameter`, density as :func:`wet_density`,
-        C_c, v_g and D_B as :func:`slip_correction`, :func:`settling_velocity` and
-        :func:`brownian_diffusivity`, with the factors that depend only on the air
-        taken out: exp(-1.1 d/(2 lambda)), v_g = rho_p d^2 C_c g/(18 mu) and
-        Sc = nu/D_B = (d/C_c) 3 pi mu nu/(k_B T).
+        Gerber (1985) or kappa-Koehler growth as
+        :func:`~workbench.drydep.particles.wet_diameter`, density as
+        :func:`~workbench.drydep.particles.wet_density`: the same equations and the
+        same constants (:mod:`workbench.drydep.zhang_tables`), with log10 RH, the
+        clipped RH and RH/(1 - RH) computed once per call instead of once per node.
         """
-        dw, d2, rho, cc, log_sc, _ = self._air_work
+        if np.ndim(dry_diameter) or np.ndim(dry_density):
+            dry_diameter, dry_density = (np.asarray(dry_diameter, dtype=float),
+                                         np.asarray(dry_density, dtype=float))
+        work = self._node_work(dry_diameter, dry_density)
+        dw, rho = work[0], work[2]
         if growth == "none":
             np.add(self.nan_rh, dry_diameter, out=dw)  # NaN where RH is, as wet_diameter
         elif growth in KAPPA:  # kappa-Koehler, as wet_diameter
@@ -141,11 +151,37 @@ class ZhangSurface:
             dw += rd ** 3
             np.cbrt(dw, out=dw)  # wet radius [cm]
             dw *= 2.0 * M_PER_CM
-        np.multiply(dw, dw, out=d2)
-        np.multiply(d2, dw, out=rho)
+        np.multiply(dw, dw, out=rho)
+        rho *= dw
         # density: water plus the dry core's excess times its volume fraction
         np.divide((dry_density - WATER_DENSITY) * dry_diameter ** 3, rho, out=rho)
         rho += WATER_DENSITY
+        return self._particle(work)
+
+    def _node_work(self, *sizes):
+        """Six work arrays of the air's shape broadcast with `sizes` (reused if scalar)."""
+        if all(np.ndim(s) == 0 for s in sizes):
+            return self._air_work
+        shape = np.broadcast_shapes(self.air_shape, *(np.shape(s) for s in sizes))
+        return [np.empty(shape) for _ in range(6)]
+
+    def _particle(self, work):
+        """v_g [m s-1], ln Sc [-] and d^2 [m2] from the diameter work[0] [m] and density work[2].
+
+        Notes
+        -----
+        C_c, v_g and D_B as :func:`~workbench.drydep.particles.slip_correction`,
+        :func:`~workbench.drydep.particles.settling_velocity` and
+        :func:`~workbench.drydep.particles.brownian_diffusivity` (Seinfeld and Pandis
+        2006, Eqs. 9.34, 9.42, 9.73; Zhang et al. 2001, Eqs. 2-3), with the factors that
+        depend only on the air taken out of the node loop (built in ``__init__`` from
+        the same :mod:`workbench.surface.air` functions and the same SLIP_* constants):
+        C_c = 1 + (2 lambda/d)(A + B exp(-C d/(2 lambda))),
+        v_g = (rho_p d^2 C_c) g/(18 mu) and Sc = nu/D_B = (d/C_c) 3 pi mu nu/(k_B T).
+        A test holds the two forms equal (tests/drydep/test_drydep_particles.py).
+        """
+        dw, d2, rho, cc, log_sc, _ = work
+        np.multiply(dw, dw, out=d2)
         np.multiply(dw, self.slip_exp_per_d, out=cc)
         np.maximum(cc, _SLIP_EXP_MIN, out=cc)  # C_c unchanged; exp kept off subnormals
         np.exp(cc, out=cc)
@@ -163,6 +199,100 @@ class ZhangSurface:
         vg *= self.vg_per_rho_d2_cc
         return vg, log_sc, d2
 
+    def _resistance(self, vg, log_sc, d2, e, st, x, sqrt_vg):
+        """R_s [s m-1] into `x` (Zhang et al. 2001, Eqs. 5-8); e, st, sqrt_vg are work arrays.
+
+        E_B = exp(-gamma ln Sc) (Eq. 6), St = v_g (St/v_g), E_IM = (St/(alpha + St))^2
+        (Eq. 7), E_IN = d^2/(2 A^2) (Eq. 8), 1/R_1 = exp(St^1/2) where there is rebound,
+        else 1 (Eq. 9), R_s = (1/R_1) / (epsilon_0 u* (E_B + E_IM + E_IN)) (Eq. 5).
+        """
+        np.multiply(self.neg_gamma, log_sc, out=e)
+        np.exp(e, out=e)                                # E_B
+        np.multiply(vg, self.st_per_vg, out=st)         # St
+        np.add(self.alpha, st, out=x)
+        np.divide(st, x, out=x)
+        np.multiply(x, x, out=x)                        # E_IM
+        e += x
+        np.multiply(d2, self.ein_per_d2, out=x)         # E_IN
+        e += x
+        e *= self.eps_ustar                             # epsilon_0 u* E
+        np.sqrt(vg, out=sqrt_vg)
+        np.multiply(sqrt_vg, self.sqrt_st_per_vg_rebound, out=x)
+        np.exp(x, out=x)                                # 1 / R_1
+        x /= e                                          # R_s
+        return x
+
+    def _weighted_sum(self, particles, weights):
+        """sum_i w_i (v_g + 1/(R_a + R_s)) over the (v_g, ln Sc, d^2) of `particles` [m s-1]."""
+        total = vg_sum = e = None
+        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+            for (vg, log_sc, d2), w in zip(particles, weights):
+                if total is None:
+                    shape = np.broadcast_shapes(self.shape, vg.shape)
+                    e, st, x = (self._work if shape == self.shape
+                                else [np.empty(shape) for _ in range(3)])
+                    total, vg_sum = np.zeros(shape), np.zeros(vg.shape)
+                    # the sixth air work array is free when node() used the shared ones
+                    sqrt_vg = (self._air_work[5] if vg is self._air_work[2]
+                               else np.empty(vg.shape))
+                x = self._resistance(vg, log_sc, d2, e, st, x, sqrt_vg)
+                x += self.ra
+                np.divide(w, x, out=x)                          # w / (R_a + R_s)
+                total += x
+                np.multiply(vg, w, out=sqrt_vg)
+                vg_sum += sqrt_vg                               # sum of w v_g
+            total += vg_sum
+        return total[()] if total.ndim == 0 else total
+
+    def velocity(self, dry_diameter, dry_density, growth):
+        """V_d = v_g + 1/(R_a + R_s) of one dry diameter (Zhang et al. 2001, Eq. 1) [m s-1].
+
+        Parameters
+        ----------
+        dry_diameter : float or array_like
+            [m]
+        dry_density : float or array_like
+            [kg m-3]
+        growth : str
+            Growth law.
+
+        Returns
+        -------
+        vd : numpy.ndarray or numpy.float64
+            [m s-1]
+
+        Notes
+        -----
+        The sum of :meth:`mass_weighted` with one node of weight 1.
+        """
+        return self._weighted_sum([self.node(dry_diameter, dry_density, growth)], [1.0])
+
+    def resistance(self, diameter, density):
+        """R_s of particles of a given (grown) diameter and density [s m-1] (Eqs. 5-9).
+
+        Parameters
+        ----------
+        diameter : float or array_like
+            [m]
+        density : float or array_like
+            [kg m-3]
+
+        Returns
+        -------
+        rs : numpy.ndarray or numpy.float64
+            NaN where the wetness or the seasonal category is unknown. [s m-1]
+        """
+        work = self._node_work(diameter, density)
+        work[0][...] = diameter
+        work[2][...] = density
+        vg, log_sc, d2 = self._particle(work)
+        shape = np.broadcast_shapes(self.shape, vg.shape)
+        e, st, x = (np.empty(shape) for _ in range(3))
+        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+            rs = self._resistance(vg, log_sc, d2, e, st, x, np.empty(vg.shape))
+        rs += self.unknown
+        return rs[()] if rs.ndim == 0 else rs
+
     def mass_weighted(self, mode, nodes):
         """Mass-weighted V_d of one mode [m s-1] (see :func:`mass_weighted_velocity`).
 
@@ -179,39 +309,11 @@ class ZhangSurface:
         Notes
         -----
         Per node, on the full (site, receptor, time) shape, Zhang et al. (2001)
-        Eqs. (1), (5)-(8): E_B = exp(-gamma ln Sc), E_IM = (St/(alpha + St))^2,
-        E_IN = d^2/(2 A^2), 1/R_1 = exp(St^1/2) where there is rebound (else 1), and
-        R_s = (1/R_1) / (epsilon_0 u* (E_B + E_IM + E_IN)); the sum over the nodes of
+        Eqs. (1), (5)-(9) (:meth:`_resistance`); the sum over the nodes of
         w (v_g + 1/(R_a + R_s)).  A loop over the few nodes, each step vectorized
         over sites, receptors and hours, in work arrays that stay in the processor's
         cache (one pass over all nodes at once was two times slower).
         """
         diams, weights = lognormal_nodes(mode.mmd, mode.gsd, nodes)
-        e, st, x = self._work
-        total = np.zeros(self.shape)
-        vg_sum = np.zeros(self.air_shape)
-        sqrt_vg = self._air_work[5]
-        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
-            for d, w in zip(diams, weights):
-                vg, log_sc, d2 = self.node(d, mode.density, mode.growth)
-                np.multiply(self.neg_gamma, log_sc, out=e)
-                np.exp(e, out=e)                                # E_B
-                np.multiply(vg, self.st_per_vg, out=st)         # St
-                np.add(self.alpha, st, out=x)
-                np.divide(st, x, out=x)
-                np.multiply(x, x, out=x)                        # E_IM
-                e += x
-                np.multiply(d2, self.ein_per_d2, out=x)         # E_IN
-                e += x
-                e *= self.eps_ustar                             # epsilon_0 u* E
-                np.sqrt(vg, out=sqrt_vg)
-                np.multiply(sqrt_vg, self.sqrt_st_per_vg_rebound, out=x)
-                np.exp(x, out=x)                                # 1 / R_1
-                x /= e                                          # R_s
-                x += self.ra
-                np.divide(w, x, out=x)                          # w / (R_a + R_s)
-                total += x
-                np.multiply(vg, w, out=sqrt_vg)
-                vg_sum += sqrt_vg                               # sum of w v_g
-            total += vg_sum
-        return total[()] if total.ndim == 0 else total
+        return self._weighted_sum((self.node(d, mode.density, mode.growth) for d in diams),
+                                  weights)

@@ -1,7 +1,7 @@
 """Constants, land-use table and size nodes of the Zhang et al. (2001) particle scheme.
 
 Shared by :mod:`workbench.drydep.particles` (the public functions, which re-export
-these names) and :mod:`workbench.drydep.particles_numpy` (the numpy fast path), so
+these names) and :mod:`workbench.drydep.particles_numpy` (the implementation), so
 that both import from here and neither imports the other's module at import time
 in a cycle.  Sources of every value are given beside it (several from memory).
 Units: SI unless stated (Gerber's radii in cm, A in mm in :data:`ZHANG_LUC`).
@@ -39,7 +39,7 @@ KAPPA = {
 #: particles without bound as RH -> 1 (common practice; cf. the RH cap of 0.99 in
 #: many aerosol models, from memory).
 GROWTH_RH_MAX = 0.99
-#: Least argument of the exponential of the slip correction in the fast path [-]
+#: Least argument of the exponential of the slip correction in ZhangSurface [-]
 #: (numerical device): below it 0.4 exp(x) < 1e-17 is lost in 1.257 + 0.4 exp(x), so
 #: C_c is the same to the last bit, and exp avoids its slow subnormal range.
 _SLIP_EXP_MIN = -40.0
