@@ -184,16 +184,14 @@ def seasonal_kendall(x, years=None, correct=True, alpha=ALPHA) -> TrendResult:
     x = np.asarray(x, float)
     n_years, n_seasons = x.shape
     t = np.arange(n_years, dtype=float) if years is None else np.asarray(years, float)
-    signs, slopes = [], []
-    for g in range(n_seasons):                     # a dozen seasons, not a loop over time
-        sg, sl = _pairs(x[:, g], t)
-        signs.append(sg.sum())
-        slopes.append(sl)
-    s = float(np.sum(signs))
+    i, j = np.triu_indices(n_years, 1)             # pairs of years, all seasons at once
+    dx = x[j] - x[i]                               # (pairs, seasons); NaN: a value missing
+    ok = ~np.isnan(dx)
+    s = float(np.sign(dx[ok]).sum())
     cov = hirsch_slack_covariance(x)
     var_s = float(cov.sum() if correct else np.trace(cov))
     z = _z(s, var_s)
-    slopes = np.concatenate(slopes) if slopes else np.array([])
+    slopes = (dx / (t[j] - t[i])[:, None])[ok]
     slope = float(np.median(slopes)) if slopes.size else np.nan
     lo, hi = _slope_interval(slopes, var_s, alpha)
     counts = np.sum(~np.isnan(x), axis=0)
