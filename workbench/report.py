@@ -34,8 +34,7 @@ def _figures_limited(n_sites, shown, what) -> str:
         return ""
     return (f"<p><b>Figures limited:</b> {what} drawn for the first {shown} of {n_sites} "
             f"sites only. The numbers of every site are in the tables of this report and in "
-            f"the run folder (budget.csv, trends.csv; budget.nc holds every figure's "
-            f"data).</p>")
+            f"budget.csv and trends.csv of the run folder.</p>")
 
 
 def plain(v, digits=DIGITS) -> str:
