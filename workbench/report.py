@@ -22,6 +22,19 @@ CAUTION = (
 
 #: Significant digits of the report's numbers.
 DIGITS = 3
+#: Sites with figures of their own (budget bars, trends) in the report; a larger network
+#: gets them for its first sites and a sentence saying where the rest is (common
+#: practice: a report of a few hundred interactive figures is slow to write and to open).
+MAX_SITE_FIGURES = 12
+
+
+def _figures_limited(n_sites, shown, what) -> str:
+    """The sentence telling the reader that figures were drawn for the first sites only."""
+    if n_sites <= shown:
+        return ""
+    return (f"<p><b>Figures limited:</b> {what} drawn for the first {shown} of {n_sites} "
+            f"sites only. The numbers of every site are in the tables of this report and in "
+            f"budget.csv and trends.csv of the run folder.</p>")
 
 
 def plain(v, digits=DIGITS) -> str:
@@ -82,9 +95,10 @@ def _exceedance_html(result, study) -> list:
     return out
 
 
-def _trend_html(result, study, first) -> tuple:
+def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES) -> tuple:
     """Sen slopes of the annual S and N totals on each site's own surface, with a figure
-    each (trends.csv has every component, the monthly tests and the notes)."""
+    each for the first `max_sites` sites (trends.csv has every component, the monthly
+    tests and the notes)."""
     import plotly.io as pio
     from .analysis.trends import MIN_YEARS, trend_table
     from .tables import budget_table
@@ -104,7 +118,12 @@ def _trend_html(result, study, first) -> tuple:
     tr = tr[tr["values"] == "all"]
     out.append(_table_html(tr[["site", "receptor", "element", "n_years", "tau", "p_value",
                                "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid"]]))
+    sites = list(dict.fromkeys(tot["site"]))
+    shown = set(sites[:max_sites])
+    out.append(_figures_limited(len(sites), len(shown), "Trend figures are"))
     for (site, el), g in tot.groupby(["site", "element"], sort=False):
+        if site not in shown:
+            continue
         row = tr[(tr["site"] == site) & (tr["element"] == el)]
         g = g.sort_values("period_start")
         fig = trend_figure(g["period_start"].dt.year, g["flux_kg_ha_yr"],
@@ -116,8 +135,11 @@ def _trend_html(result, study, first) -> tuple:
     return out, first
 
 
-def render_report(result, study, scenario=None) -> str:
-    """HTML text of the report: budget tables, figures, QA summary, omissions, cautions."""
+def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURES) -> str:
+    """HTML text of the report: budget tables, figures, QA summary, omissions, cautions.
+
+    Figures of single sites are drawn for the first `max_site_figures` sites [1]; the
+    tables keep every site."""
     import plotly.io as pio
     from .ui.figures import budget_bars
     parts = []
@@ -163,7 +185,10 @@ def render_report(result, study, scenario=None) -> str:
     first = True
     ds = result.years
     last_year = str(ds["period"].values[-1])
-    for site in ds["site"].values:
+    sites = ds["site"].values
+    parts.append(_figures_limited(len(sites), min(len(sites), max_site_figures),
+                                  "Budget figures are"))
+    for site in sites[:max_site_figures]:
         rec = [r for r in ds["receptor"].values if bool(ds["active"].sel(site=site, receptor=r))]
         for r in rec[:1]:
             year = last_year
@@ -174,7 +199,7 @@ def render_report(result, study, scenario=None) -> str:
             parts.append(pio.to_html(fig, include_plotlyjs="inline" if first else False,
                                      full_html=False))
             first = False
-    trend_parts, first = _trend_html(result, study, first)
+    trend_parts, first = _trend_html(result, study, first, max_site_figures)
     parts.extend(trend_parts)
     parts.append("<h2>Precipitation-chemistry QA</h2>")
     if result.screened is not None:

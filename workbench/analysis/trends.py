@@ -2,8 +2,10 @@
 seasonal Kendall test on monthly values with the Hirsch and Slack (1984) correction for
 serial dependence among the seasons.
 
-The statistics are vectorized over the pairs of values (broadcast differences); a
-study has tens of series, each of tens of years, so the loop over series stays small.
+The statistics are vectorized over the pairs of values (broadcast differences).  The
+table of a run (:func:`trend_table`) indexes all series at once (one groupby for the
+series, one for the monthly grids) and loops over the series with numpy only: a network
+has thousands of series, and a pandas call per series used to dominate a run.
 """
 from __future__ import annotations
 
@@ -182,16 +184,14 @@ def seasonal_kendall(x, years=None, correct=True, alpha=ALPHA) -> TrendResult:
     x = np.asarray(x, float)
     n_years, n_seasons = x.shape
     t = np.arange(n_years, dtype=float) if years is None else np.asarray(years, float)
-    signs, slopes = [], []
-    for g in range(n_seasons):                     # a dozen seasons, not a loop over time
-        sg, sl = _pairs(x[:, g], t)
-        signs.append(sg.sum())
-        slopes.append(sl)
-    s = float(np.sum(signs))
+    i, j = np.triu_indices(n_years, 1)             # pairs of years, all seasons at once
+    dx = x[j] - x[i]                               # (pairs, seasons); NaN: a value missing
+    ok = ~np.isnan(dx)
+    s = float(np.sign(dx[ok]).sum())
     cov = hirsch_slack_covariance(x)
     var_s = float(cov.sum() if correct else np.trace(cov))
     z = _z(s, var_s)
-    slopes = np.concatenate(slopes) if slopes else np.array([])
+    slopes = (dx / (t[j] - t[i])[:, None])[ok]
     slope = float(np.median(slopes)) if slopes.size else np.nan
     lo, hi = _slope_interval(slopes, var_s, alpha)
     counts = np.sum(~np.isnan(x), axis=0)
@@ -279,6 +279,76 @@ def _row(key, series, variant, years, r, min_years, median, excluded, dl):
             "intercept": r.intercept, "unit": "kg ha-1 yr-1"}
 
 
+def _series_index(frame):
+    """The series of a budget table: their keys (in order of first appearance, as
+    ``groupby(KEYS, sort=False)``), the series code of each row (-1: a key is missing,
+    the row is in no series, as in ``groupby``) and a stable order of the rows by series
+    and period start."""
+    import pandas as pd
+    g = frame.groupby(KEYS, sort=False)
+    code = g.ngroup().to_numpy()
+    code = np.where(pd.isna(code), -1, code).astype(np.int64)
+    first = pd.DataFrame({"c": code}).drop_duplicates("c")
+    first = first[first["c"] >= 0].sort_values("c")
+    keys = list(frame.iloc[first.index.to_numpy()][KEYS].itertuples(index=False, name=None))
+    start = pd.DatetimeIndex(frame["period_start"]).to_numpy()
+    order = np.lexsort((start, code))
+    order = order[code[order] >= 0]
+    return keys, code, order
+
+
+def _left_out(status) -> str:
+    """'years left out: 2 flagged, 1 filled' (most frequent first, then first seen)."""
+    if not status.size:
+        return ""
+    values, first, counts = np.unique(status, return_index=True, return_counts=True)
+    o = np.argsort(first, kind="stable")
+    o = o[np.argsort(-counts[o], kind="stable")]
+    return "years left out: " + ", ".join(f"{counts[i]} {values[i]}" for i in o)
+
+
+def _monthly_rows(month_rows, dl_notes, min_years, alpha):
+    """Seasonal Kendall rows of :func:`trend_table`.  The (series, year, month) grid of
+    each variant is built once for all series (one groupby); each series' grid is a
+    slice of it over the years the series has rows in."""
+    import pandas as pd
+    m = month_rows[month_rows["period"].astype(str) != "span"]
+    keys, code, _ = _series_index(m)
+    ps = pd.DatetimeIndex(m["period_start"])
+    year, month = ps.year.to_numpy(), ps.month.to_numpy()
+    flux = m["flux_kg_ha_yr"].to_numpy(float)
+    status = m["status"].astype(str).to_numpy()
+    inside = code >= 0
+    all_years, yi = np.unique(year, return_inverse=True)
+    present = np.zeros((len(keys), all_years.size), bool)
+    present[code[inside], yi[inside]] = True
+    grids, n_out = {}, {}
+    for variant, keep in VARIANTS.items():
+        ok = np.isin(status, keep) & np.isfinite(flux)
+        n_out[variant] = np.bincount(code[inside & ~ok], minlength=len(keys))
+        sel = inside & ok          # one groupby mean of repeated months, as pivot_table
+        cell = pd.DataFrame({"c": code[sel], "y": yi[sel], "m": month[sel] - 1,
+                             "f": flux[sel]}).groupby(["c", "y", "m"])["f"].mean()
+        grid = np.full((len(keys), all_years.size, 12), np.nan)
+        grid[tuple(np.asarray(cell.index.get_level_values(i)) for i in range(3))] = cell.to_numpy()
+        grids[variant] = grid
+    rows = []
+    for c, key in enumerate(keys):
+        dl = _dl_note(dl_notes, *key[:1], *key[2:])
+        full = present[c]
+        full_years = all_years[full]
+        for variant in VARIANTS:
+            grid = grids[variant][c][full]
+            r = seasonal_kendall(grid, full_years.astype(float), True, alpha)
+            used = full_years[~np.isnan(grid).all(axis=1)]
+            n = int(n_out[variant][c])
+            rows.append(_row(key, "monthly", variant, used, r, min_years,
+                             float(np.nanmedian(grid)) if used.size else np.nan,
+                             f"{n} months left out by status" if n else "", dl))
+    return rows
+
+
+
 def trend_table(year_rows, month_rows=None, dl_notes=None, min_years=MIN_YEARS,
                 alpha=ALPHA):
     """``trends.csv``: a trend per site, receptor, element, pathway and species.
@@ -306,41 +376,24 @@ def trend_table(year_rows, month_rows=None, dl_notes=None, min_years=MIN_YEARS,
     import pandas as pd
     dl_notes = dl_notes or {}
     rows = []
-    y = year_rows[year_rows["period"].astype(str) != "span"].copy()
-    y["year"] = pd.DatetimeIndex(y["period_start"]).year
-    for key, g in y.groupby(KEYS, sort=False):
-        g = g.sort_values("year")
-        years = g["year"].to_numpy()
-        x = g["flux_kg_ha_yr"].to_numpy(float)
-        status = g["status"].astype(str).to_numpy()
+    y = year_rows[year_rows["period"].astype(str) != "span"]
+    keys, code, order = _series_index(y)
+    year = pd.DatetimeIndex(y["period_start"]).year.to_numpy()[order]
+    x_all = y["flux_kg_ha_yr"].to_numpy(float)[order]
+    status_all = y["status"].astype(str).to_numpy()[order]
+    bounds = np.searchsorted(code[order], np.arange(len(keys) + 1))
+    for c, key in enumerate(keys):                 # numpy only inside: no pandas per series
+        sl = slice(bounds[c], bounds[c + 1])
+        years, x, status = year[sl], x_all[sl], status_all[sl]
         dl = _dl_note(dl_notes, *key[:1], *key[2:])
         for variant, keep in VARIANTS.items():
             use = np.isin(status, keep) & np.isfinite(x)
-            left = pd.Series(status[~use]).value_counts()
-            excluded = ("years left out: " + ", ".join(f"{n} {s}" for s, n in left.items())
-                        if len(left) else "")
+            excluded = _left_out(status[~use])
             r = mann_kendall(np.where(use, x, np.nan), years.astype(float), alpha)
             rows.append(_row(key, "annual", variant, years[use], r, min_years,
                              np.median(x[use]) if use.any() else np.nan, excluded, dl))
     if month_rows is not None and len(month_rows):
-        m = month_rows[month_rows["period"].astype(str) != "span"].copy()
-        ps = pd.DatetimeIndex(m["period_start"])
-        m["year"], m["month"] = ps.year, ps.month
-        for key, g in m.groupby(KEYS, sort=False):
-            dl = _dl_note(dl_notes, *key[:1], *key[2:])
-            for variant, keep in VARIANTS.items():
-                ok = g["status"].astype(str).isin(keep) & np.isfinite(g["flux_kg_ha_yr"])
-                grid = g[ok].pivot_table(index="year", columns="month", values="flux_kg_ha_yr")
-                grid = grid.reindex(columns=range(1, 13))
-                full_years = sorted(set(g["year"]))
-                grid = grid.reindex(full_years)
-                r = seasonal_kendall(grid.to_numpy(float), np.asarray(full_years, float),
-                                     True, alpha)
-                used = grid.index[grid.notna().any(axis=1)].to_numpy()
-                n_out = int((~ok).sum())
-                rows.append(_row(key, "monthly", variant, used, r, min_years,
-                                 float(np.nanmedian(grid.to_numpy())) if used.size else np.nan,
-                                 f"{n_out} months left out by status" if n_out else "", dl))
+        rows += _monthly_rows(month_rows, dl_notes, min_years, alpha)
     out = pd.DataFrame(rows)
     if out.empty:
         return pd.DataFrame(columns=list(TREND_COLUMNS))
