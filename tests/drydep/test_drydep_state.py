@@ -55,9 +55,12 @@ def test_surface_rule_finds_more_night_dew(synthetic):
     day = (sfc["sensible_heat_flux"] > 0) & (sfc["wetness_source"] == 2)
     day_air = (air["sensible_heat_flux"] > 0) & (air["wetness_source"] == 2)
     assert day.sum().item() <= day_air.sum().item()
-    # Wesely's default is the air rule: unchanged numbers
+    # "scheme" resolves Wesely (no published rule) to the air rule; the default is the
+    # surface rule for both schemes
+    by_scheme = velocities(met, surf, DryOptions(dew_rule="scheme", **base))
+    np.testing.assert_array_equal(by_scheme["vd_SO2"].values, air["vd_SO2"].values)
     default = velocities(met, surf, DryOptions(**base))
-    np.testing.assert_array_equal(default["vd_SO2"].values, air["vd_SO2"].values)
+    np.testing.assert_array_equal(default["vd_SO2"].values, sfc["vd_SO2"].values)
     # SO2 deposits faster on the wetter surface
     assert float(sfc["vd_SO2"].mean()) > float(air["vd_SO2"].mean())
 
@@ -88,7 +91,11 @@ def test_surface_state_season_through_the_engine(synthetic):
     assert (cat.where(month == 5, drop=True) == 1).all()          # green
     assert (cat.where(month == 4, drop=True) == 5).all()          # greening
     assert (ds["seasonal_source"].sel(site="bramble_moor") == 4).all()
-    month_rule = velocities(met, s2, DryOptions(particles=(), gases=("SO2",)))
+    month_rule = velocities(met, s2, DryOptions(particles=(), gases=("SO2",),
+                                                season_rule="month"))
+    default = velocities(met, s2, DryOptions(particles=(), gases=("SO2",)))
+    np.testing.assert_array_equal(default["seasonal_category"].values,
+                                  ds["seasonal_category"].values)
     assert (month_rule["seasonal_category"].sel(site="bramble_moor").where(
         month == 5, drop=True) == 5).all()
     # the same hours through dask blocks (the frost rule found beforehand)

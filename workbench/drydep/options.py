@@ -121,14 +121,23 @@ class DryOptions:
         (rain in this or the previous hour, or dew); ``"inferred"``: always the rule;
         ``"always_dry"`` / ``"always_wet"``: every hour dry / wet.
     dew_rule : str
-        Saturation humidity of the dew rule at the ``"surface_temperature"`` (found from
-        the heat flux; Zhang et al. 2003) or at the ``"air_temperature"`` (a threshold
-        on relative humidity); ``"scheme"``: the rule the gas scheme publishes
-        (wesely1989: air, zhang2003: surface). docs/methods_dry.md section 8.
+        Saturation humidity of the dew rule. ``"surface_temperature"`` (default, both
+        schemes): at the surface temperature found from the heat flux, the rule Zhang
+        et al. (2003) publish; the default for Wesely (1989) too, which publishes no dew
+        rule, because it is the physically based one (a surface cooling below the air
+        gathers dew while the air is unsaturated), so both schemes see the same wet
+        hours. ``"air_temperature"``: at the air temperature, a threshold on relative
+        humidity alone (dew only above about 97-99.8 % RH; the dew criterion of Zhang
+        et al. 2003 evaluated with the air's saturation humidity, this workbench's
+        earlier rule). ``"scheme"``: the rule the gas scheme module names (zhang2003:
+        surface; wesely1989: air), the default before. docs/methods_dry.md section 8.
     season_rule : str
-        ``"month"``: Wesely's category from the calendar month and latitude, then frost
-        and snow; ``"surface_state"``: from the leaf-area index of the site's own
-        surface (green, greening, browning, dormant), then frost and snow (section 7).
+        ``"surface_state"`` (default): Wesely's category from the leaf-area index of
+        the site's own surface (green, greening, browning, dormant), then frost and
+        snow, so that the stomata follow the canopy rather than the calendar (where the
+        LAI does not vary the month rule stays); ``"month"``: from the calendar month
+        and latitude, then frost and snow (the default before).  docs/methods_dry.md
+        section 7.
     seasonal_category : None, int or 12-tuple of int
         None: automatic (surface state, then month and latitude); an int 1-5 for
         every hour; or one category per calendar month.
@@ -236,8 +245,8 @@ class DryOptions:
     gases: tuple = ("SO2", "HNO3", "NH3", "NO2", "O3")
     particles: tuple = ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa")
     wetness_rule: str = "met"
-    dew_rule: str = "scheme"
-    season_rule: str = "month"
+    dew_rule: str = "surface_temperature"
+    season_rule: str = "surface_state"
     seasonal_category: object = None
     ustar_floor: float = 0.05
     ra_cap: float = 1000.0

@@ -14,6 +14,10 @@ Rule, in order of precedence (ours, documented in docs/methods_dry.md):
 4. otherwise by month: Dec-Feb 3 (winter without snow), Mar-May 5, Jun-Aug 1,
    Sep-Nov 2 in the northern hemisphere, shifted by six months in the southern;
    within the tropics (|latitude| < 23.44 degrees) 1 all year.
+
+With ``DryOptions.season_rule = "surface_state"`` (the default) step 4 takes the
+site's own leaf-area index where it varies over the year (green, greening, browning,
+dormant) and the month only where it does not; ``"month"`` keeps step 4 as above.
 """
 from __future__ import annotations
 

@@ -13,8 +13,9 @@ Inferred rule (three-valued: 1 wet, 0 dry, NaN unknown):
 
 The saturation humidity q_s is taken (``DryOptions.dew_rule``):
 
-* ``"surface_temperature"``: at the surface temperature, as Zhang, Brook and Vet
-  (2003) publish the rule; the surface temperature is found from the sensible heat
+* ``"surface_temperature"`` (default, both schemes): at the surface temperature, as
+  Zhang, Brook and Vet (2003) publish the rule, and for Wesely (1989), who publishes
+  none, as the physically based rule; the surface temperature is found from the sensible heat
   flux over the receptor by the bulk transfer relation
   H = rho c_p (T_s - T_a)/(R_a + R_b,h) (e.g. Garratt 1992, The Atmospheric Boundary
   Layer, ch. 3, from memory), so that a surface cooling at night below the air
@@ -22,9 +23,9 @@ The saturation humidity q_s is taken (``DryOptions.dew_rule``):
 * ``"air_temperature"``: at the air temperature, i.e. a threshold on relative
   humidity alone (dew only above about 97-99.8 % RH); the rule of this workbench
   before the surface rule, kept as an option;
-* ``"scheme"`` (default): the rule the gas scheme publishes (its ``DEW_RULE``):
-  Zhang et al. (2003) the surface rule; Wesely (1989), which publishes none, the air
-  rule.
+* ``"scheme"``: the rule the gas scheme module names (its ``DEW_RULE``): Zhang et
+  al. (2003) the surface rule; Wesely (1989), which publishes none, the air rule (the
+  default before the surface rule became the default for both).
 
 Kinds, as Wesely (1989) treats them: 0 dry, 1 dew, 2 rain.
 """
