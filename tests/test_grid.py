@@ -266,7 +266,12 @@ def test_scenario_grid_section_located(tmp_path):
     p = tmp_path / "scenario.toml"
     p.write_text('[grid]\nmet = "met.nc"\nair = "air.nc"\n')
     with pytest.raises(ScenarioError, match=r"line 1, column 'grid.land_use': missing "
-                                            r"required key"):
+                                            r"required key, expected the path of the "
+                                            r"land-use grid of our classes \(CF NetCDF"):
+        load_scenario(p)
+    p.write_text('[grid]\nmet = "met.nc"\n')
+    with pytest.raises(ScenarioError, match=r"expected the path of the air concentrations "
+                                            r"on \(time, y, x\) \(CF NetCDF"):
         load_scenario(p)
     p.write_text('[grid]\nmet = "met.nc"\nair = "air.nc"\nland_use = "lu.nc"\n')
     with pytest.raises(ScenarioError, match=r"line 2, column 'grid.met': input file does "

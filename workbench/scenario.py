@@ -363,6 +363,12 @@ def validate(raw: dict, path=None, text: str = "") -> Scenario:
     return sc
 
 
+#: What each file of the [grid] section holds (for messages).
+_GRID_FILES = {"met": "hourly met on (time, y, x)",
+               "air": "air concentrations on (time, y, x)",
+               "land_use": "land-use grid of our classes"}
+
+
 def _check_grid(grid: dict, given, path, lines):
     """A [grid] section names all three files, and each exists (paths relative to the
     scenario file)."""
@@ -373,7 +379,8 @@ def _check_grid(grid: dict, given, path, lines):
         if grid[key] is None:
             raise ScenarioError("missing required key", file=path, line=_line_of(lines, "grid"),
                                 column=f"grid.{key}", expected="the path of the "
-                                + SCHEMA["grid"][key][2].split(",")[0] + " file")
+                                + _GRID_FILES[key] + " (CF NetCDF, docs/data_formats.md "
+                                "section 5)")
     for key in ("met", "air", "land_use"):
         p = Path(grid[key])
         if not (p if p.is_absolute() else base / p).exists():
