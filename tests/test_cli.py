@@ -398,3 +398,12 @@ def test_check_fails_exactly_when_run_fails(case, tmp_path, capsys):
         assert not out.exists() and _leftovers(out) == []
     else:
         assert message in (None, "?")
+
+
+def test_block_sites_help_names_the_block_defaults():
+    from workbench.blocks import AUTO_BLOCK_SITES, DEFAULT_MAX_BLOCK
+    from workbench.cli import build_parser
+    run = build_parser()._subparsers._group_actions[0].choices["run"]
+    text = next(a.help for a in run._actions if "--block-sites" in a.option_strings)
+    assert f"default {DEFAULT_MAX_BLOCK};" in text
+    assert f"more than {AUTO_BLOCK_SITES} sites" in text

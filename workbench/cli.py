@@ -202,7 +202,9 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--scheduler", default=None, metavar="ADDRESS", help="compute blocks of "
                    "sites on the dask scheduler at ADDRESS (e.g. tcp://host:8786)")
     r.add_argument("--block-sites", type=_positive, default=None, metavar="K",
-                   help="sites per block (default 10; a network of more than 20 sites is "
+                   # blocks.DEFAULT_MAX_BLOCK and AUTO_BLOCK_SITES (not imported here:
+                   # the parser stays light; tests/test_cli.py holds the text to them)
+                   help="sites per block (default 4; a network of more than 20 sites is "
                    "computed in blocks without this option); in block mode velocities.nc "
                    "is not written")
     r.set_defaults(func=cmd_run)

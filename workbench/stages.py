@@ -113,7 +113,7 @@ def met_with_air(met, air, surfaces, dry_options):
                            or dry_options.sampler_coarse_fraction):
         return met
     from .drydep import codeposition, particle_fractions
-    from .surface.air import standard_pressure_at
+    from .surface.air import station_pressure
     sites, times = [str(x) for x in met["site"].values], met["time"].values
     extra = {}
     if dry_options.so2_codeposition or dry_options.nh3_acid_ratio_from_air:
@@ -121,7 +121,7 @@ def met_with_air(met, air, surfaces, dry_options):
         p = (met["pressure"].transpose("site", "time").values if "pressure" in met
              else np.full(t.shape, np.nan))
         elev = surfaces["elevation"].sel(site=sites).values.astype(float)
-        p = np.where(np.isnan(p), standard_pressure_at(elev)[:, None], p)
+        p, _ = station_pressure(p, elev[:, None])
         if dry_options.so2_codeposition:
             extra["nh3_so2_ratio"] = codeposition.hourly_ratio(air, times, sites, t, p)
         if dry_options.nh3_acid_ratio_from_air:

@@ -109,7 +109,7 @@ def test_invalid_modes_rejected():
     assert FINE_MODE.mmd == 0.4e-6
 
 
-# --- mass_weighted_velocity against the independent transcription, node by node --------
+# --- mass_weighted_velocity against the independent reference implementation, node by node --------
 
 LAND_USES = ("conifer_forest", "deciduous_forest", "grass", "water", "barren", "snow_ice",
              "urban", "wetland")
@@ -142,7 +142,7 @@ def _hourly_inputs(seed=5, n_site=2, n_time=400):
     return rh, ustar, ra, temp, pres, land, cat, wet
 
 
-# --- an independent transcription of the scheme, the reference of the package's one ---
+# --- an independent reference implementation of the scheme, the reference of the package's one ---
 #
 # Zhang, L., Gong, S., Padro, J. and Barrie, L. (2001), A size-segregated particle dry
 # deposition scheme for an atmospheric aerosol module, Atmos. Environ. 35, 549-560
@@ -226,7 +226,7 @@ def _node_by_node(mode, args, nodes):
                    for d, wi in zip(diams, w))
 
 
-def test_public_functions_equal_the_independent_transcription():
+def test_public_functions_equal_the_independent_reference():
     args = _hourly_inputs(seed=4, n_time=60)
     rh, ustar, ra, temp, pres, land, cat, wet = args
     with np.errstate(divide="ignore", over="ignore", invalid="ignore"):

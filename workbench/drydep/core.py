@@ -36,7 +36,7 @@ from ..surface.aerodynamic import (aerodynamic_resistance, apply_cap, apply_floo
                                    coriolis_parameter, reference_height, transfer_ustar,
                                    transfer_ustar_drag_law)
 from ..surface.air import (air_density, kinematic_viscosity, specific_humidity_deficit,
-                           standard_pressure_at)
+                           station_pressure)
 from ..surface.roughness import charnock_roughness, land_use_roughness
 from ..surface.solar import solar_elevation_sine, time_parts
 from . import canopy as _canopy
@@ -219,9 +219,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         # --- 1. inputs, pressure, air ------------------------------------------------------
         temp, u, rh = st("temperature"), st("wind_speed"), st("relative_humidity")
         k_down, precip = st("solar_radiation"), st("precipitation")
-        p_in = st("pressure")
-        pressure_estimated = np.isnan(p_in)
-        pres = np.where(pressure_estimated, standard_pressure_at(site("elevation")), p_in)
+        pres, pressure_estimated = station_pressure(st("pressure"), site("elevation"))
         rho = air_density(temp, pres)
         nu = kinematic_viscosity(temp, pres)
         snow = st("snow_cover")

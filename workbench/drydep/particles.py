@@ -421,7 +421,7 @@ def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, p
     not depend on the mode (air, land-use values, the factors of St, E_IN and R_1)
     is computed once for all modes, what depends on the particle only (grown
     diameter and density, C_c, v_g, Sc) once per node on (site, time) without the
-    receptor axis.  A test holds it to an independent node-by-node transcription
+    receptor axis.  A test holds it to an independent node-by-node reference implementation
     of the paper's equations (tests/drydep/test_drydep_particles.py).  Large arrays are computed in
     blocks of about :data:`BLOCK_ELEMENTS` elements along sites and hours (the same
     numbers; the work arrays stay in the processor's cache).  xarray and dask input

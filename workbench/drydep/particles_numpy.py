@@ -7,7 +7,7 @@ mode (:meth:`ZhangSurface.mass_weighted`); the public functions of
 (``xarray.apply_ufunc``), for xarray and dask input.  The equations are arranged so
 that what does not depend on the particle size is computed once and what depends on
 the size only is computed without the receptor axis.  A test holds it to an
-independent node-by-node transcription of the paper's equations
+independent node-by-node reference implementation of the paper's equations
 (tests/drydep/test_drydep_particles.py).
 Units: SI (m, kg m-3, K, Pa, m s-1, s m-1).
 """

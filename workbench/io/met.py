@@ -21,6 +21,7 @@ from .ledger import Ledger
 from .table import RawTable
 
 from .metvars import _UNITS_OUT, HOUR, MET_VARIABLES, convert_met  # noqa: F401 (re-exported)
+from .metvars import site_time_dataset
 
 
 def _convert(tab: RawTable, name: str, target: str):
@@ -130,24 +131,7 @@ def _assemble(values, sites, t, lines, path, catalogue, raw_units, empty_reason)
     site_ids = [s for s in catalogue.ids if s in set(present_ids.tolist())]
     order = np.array([site_ids.index(s) for s in present_ids.tolist()], int)  # per site, not row
     si = order[si]
-    tk = t[keep]
-    t0, t1 = tk.min(), tk.max()
-    n_t = int((t1 - t0) // HOUR) + 1
-    times = t0 + np.arange(n_t) * HOUR
-    ti = ((tk - t0) // HOUR).astype(int)
-    values = {k: v[keep] for k, v in values.items()}
-    dvars = {}
-    for name, v in values.items():
-        grid = np.full((len(site_ids), n_t), np.nan)
-        grid[si, ti] = v
-        unit, _, long_name = MET_VARIABLES[name]
-        dvars[name] = (("site", "time"), grid, {"units": _UNITS_OUT[unit], "long_name": long_name})
-    present = np.zeros((len(site_ids), n_t), bool)
-    present[si, ti] = True
-    ds = xr.Dataset(dvars, coords={"site": site_ids, "time": times})
-    ds["time"].attrs.update({"long_name": "end of the hour (UTC)"})
-    ds["row_present"] = (("site", "time"), present, {"long_name": "an input row exists for this hour"})
-    ds.attrs["source_file"] = str(path)
+    ds = site_time_dataset(values, keep, site_ids, si, t[keep], path)
     ledger.notes.extend(metchecks.describe_gaps(ds))
     return ds, ledger
 

@@ -27,13 +27,12 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
-import xarray as xr
 
 from ..units import parse_header
 from . import metchecks
 from .common import join_reasons, release_free_memory
 from .ledger import CodedRows, Ledger
-from .metvars import _UNITS_OUT, HOUR, MET_VARIABLES, convert_met
+from .metvars import HOUR, MET_VARIABLES, convert_met, site_time_dataset
 from .table import _OFFSET, MISSING_TEXTS, YEARS
 
 #: Bytes of text parsed at a time.
@@ -284,11 +283,10 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
         return None
     values = {n: parts.pop(n).done() for n in used[2:]}
     return _checked(values, site, t, first_line, path, catalogue, ids, units, raw_headers,
-                    variables, hour)
+                    variables)
 
 
-def _checked(values, site, t, first_line, path, catalogue, ids, units, raw_headers, variables,
-             hour):
+def _checked(values, site, t, first_line, path, catalogue, ids, units, raw_headers, variables):
     """Repeats refused, per-site checks, the ledger as codes and the (site, time) grid."""
     n = len(site)
     order = np.argsort(site, kind="stable")             # rows of each site, in file order
@@ -335,25 +333,7 @@ def _checked(values, site, t, first_line, path, catalogue, ids, units, raw_heade
     rank = np.cumsum(present) - 1
     site_ids = [str(s) for s in ids[present]]
     si = rank[site[keep]]
-    tk = t[keep]
-    t0, t1 = tk.min(), tk.max()
-    n_t = int((t1 - t0) // hour) + 1
-    times = t0 + np.arange(n_t) * hour
-    ti = ((tk - t0) // hour).astype(int)
-    del tk
-    dvars = {}
-    for name in list(values):
-        grid = np.full((len(site_ids), n_t), np.nan)
-        grid[si, ti] = values.pop(name)[keep]
-        unit, _, long_name = variables[name]
-        dvars[name] = (("site", "time"), grid, {"units": _UNITS_OUT[unit], "long_name": long_name})
-    row_present = np.zeros((len(site_ids), n_t), bool)
-    row_present[si, ti] = True
-    ds = xr.Dataset(dvars, coords={"site": site_ids, "time": times})
-    ds["time"].attrs.update({"long_name": "end of the hour (UTC)"})
-    ds["row_present"] = (("site", "time"), row_present,
-                         {"long_name": "an input row exists for this hour"})
-    ds.attrs["source_file"] = str(path)
+    ds = site_time_dataset(values, keep, site_ids, si, t[keep], path, variables)
     release_free_memory()              # the row arrays, freed above
     ledger.notes.extend(metchecks.describe_gaps(ds))
     unknown = [raw_headers[c] for c in raw_headers if c not in set(variables) | {"site", "time"}]

@@ -3,6 +3,7 @@ the readers of :mod:`workbench.io.met` and :mod:`workbench.io.metfast`)."""
 from __future__ import annotations
 
 import numpy as np
+import xarray as xr
 
 from ..units import convert_plain, parse_unit, ureg
 
@@ -52,3 +53,50 @@ def convert_met(raw, unit: str, name: str, target: str):
             # an hourly sum of energy per area: the mean irradiance over the hour
             return convert_plain(raw, unit, "J/m**2") / 3600.0
     return convert_plain(raw, unit, target)
+
+
+def site_time_dataset(values: dict, keep, site_ids, si, tk, path, variables=MET_VARIABLES):
+    """The (site, time) Dataset of the kept met rows (both readers build it so).
+
+    Parameters
+    ----------
+    values : dict of str to numpy.ndarray
+        Converted values per variable, one per row [internal units]; emptied as each
+        column is put on the grid (so that a large file's rows are freed one by one).
+    keep : numpy.ndarray of bool
+        The rows that enter the grid.
+    site_ids : list of str
+        The sites of the grid, in catalogue order.
+    si : numpy.ndarray of int
+        Position in `site_ids` of each kept row.
+    tk : numpy.ndarray of datetime64[ns]
+        Time (end of the hour) of each kept row.
+    path : str or Path
+        The file (``source_file`` attribute).
+    variables : dict
+        :data:`MET_VARIABLES` (unit and long name of each variable).
+
+    Returns
+    -------
+    xarray.Dataset
+        Each variable on (site, time) with NaN for hours without a row, and
+        ``row_present`` (an input row exists for this hour).
+    """
+    t0, t1 = tk.min(), tk.max()
+    n_t = int((t1 - t0) // HOUR) + 1
+    times = t0 + np.arange(n_t) * HOUR
+    ti = ((tk - t0) // HOUR).astype(int)
+    dvars = {}
+    for name in list(values):
+        grid = np.full((len(site_ids), n_t), np.nan)
+        grid[si, ti] = values.pop(name)[keep]
+        unit, _, long_name = variables[name]
+        dvars[name] = (("site", "time"), grid, {"units": _UNITS_OUT[unit], "long_name": long_name})
+    present = np.zeros((len(site_ids), n_t), bool)
+    present[si, ti] = True
+    ds = xr.Dataset(dvars, coords={"site": site_ids, "time": times})
+    ds["time"].attrs.update({"long_name": "end of the hour (UTC)"})
+    ds["row_present"] = (("site", "time"), present,
+                         {"long_name": "an input row exists for this hour"})
+    ds.attrs["source_file"] = str(path)
+    return ds

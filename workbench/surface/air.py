@@ -239,3 +239,24 @@ def standard_pressure_at(elevation):
     expo = GRAVITY * MOLAR_MASS_DRY_AIR / (GAS_CONSTANT * STANDARD_LAPSE_RATE)
     return STANDARD_PRESSURE * (1.0 - STANDARD_LAPSE_RATE * elevation /
                                 STANDARD_SEA_LEVEL_TEMPERATURE) ** expo
+
+
+def station_pressure(pressure, elevation):
+    """Measured station pressure, or the standard atmosphere's where it is missing [Pa].
+
+    Parameters
+    ----------
+    pressure : array_like
+        Measured pressure, NaN where missing. [Pa]
+    elevation : array_like
+        Height above sea level, broadcastable to `pressure`. [m]
+
+    Returns
+    -------
+    p : numpy.ndarray
+        [Pa]
+    estimated : numpy.ndarray of bool
+        True where :func:`standard_pressure_at` stands in.
+    """
+    estimated = np.isnan(pressure)
+    return np.where(estimated, standard_pressure_at(elevation), pressure), estimated
