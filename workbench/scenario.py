@@ -53,7 +53,7 @@ SCHEMA: dict = {
 SITE_OVERRIDES = ("canopy_height_m", "roughness_length_m", "displacement_height_m",
                   "terrain_slope_deg", "lai", "lai_min", "lai_max", "collector",
                   "receptors", "met_land_use", "wind_height_m", "sampler_height_m",
-                  "coast_distance_km", "coarse_fraction")
+                  "coast_distance_km", "coarse_fraction", "ustar_transfer")
 
 
 def option_sections() -> dict:

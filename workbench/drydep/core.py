@@ -106,6 +106,37 @@ def _met_surface(surf, receptors, opt):
     return names, np.asarray(z0, float), np.asarray(d, float)
 
 
+def receptor_transfers(surf, receptors, opt):
+    """The transfer of u* of each site and receptor (site, receptor) [-].
+
+    ``opt.ustar_transfer_receptor["<site>/<class>"]``, else the site's own table (the
+    ``ustar_transfer`` variable of `surf`, from sites.toml's ``[site.ustar_transfer]``;
+    empty: not set), else ``opt.ustar_transfer_receptor["<class>"]``, else
+    ``opt.ustar_transfer``.
+
+    Parameters
+    ----------
+    surf : xarray.Dataset
+        The receptor surfaces (site, receptor).
+    receptors : sequence of str
+    opt : DryOptions
+
+    Returns
+    -------
+    numpy.ndarray of str
+        ``"drag_law"`` or ``"blending_height"``, shape (site, receptor).
+    """
+    over = opt.ustar_transfer_receptor
+    sites = [str(x) for x in surf["site"].values]
+    table = (surf["ustar_transfer"].transpose("site", "receptor").values
+             if "ustar_transfer" in surf else np.full((len(sites), len(receptors)), ""))
+    out = np.empty((len(sites), len(receptors)), dtype=object)
+    for i, s in enumerate(sites):          # sites x receptors names, not hours
+        for j, r in enumerate(receptors):
+            out[i, j] = over.get(f"{s}/{r}") or table[i, j] or over.get(r) or opt.ustar_transfer
+    return out
+
+
 def _receptor_roughness(surf, receptors, opt):
     z0, d = land_use_roughness(receptors, surf["canopy_height"].values.astype(float),
                                surf["roughness_length"].values.astype(float),
@@ -117,7 +148,8 @@ def _receptor_roughness(surf, receptors, opt):
 #: the options each reads: a step is computed again only when one of them, or a step
 #: it is run on, changes.  Steps 1-4 (air, sun, surface layer, receptors' u*, L, Ra):
 _MICROMET_OPTIONS = ("roughness", "ustar_floor", "ra_cap", "ra_min_height_z0",
-                     "blending_height", "ustar_transfer", "night_cloud_cover", "unstable_iterations",
+                     "blending_height", "ustar_transfer", "ustar_transfer_receptor",
+                     "night_cloud_cover", "unstable_iterations",
                      "charnock_iterations")
 #: Step 5 (season and wetness; the dew rule as the gas scheme resolves it).
 _STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule", "dew_rule", "gas_scheme")
@@ -288,10 +320,16 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         zb = opt.blending_height
         f_cor = coriolis_parameter(site("latitude"))
 
-        def transfer(z0_to, d_to):  # u* over the receptor (option ustar_transfer)
-            if opt.ustar_transfer == "drag_law":
+        blend = receptor_transfers(surf, receptors, opt) == "blending_height"
+        blend = blend[:, :, None]
+
+        def transfer(z0_to, d_to):  # u* over the receptor (ustar_transfer, per receptor)
+            if not blend.any():
                 return transfer_ustar_drag_law(us_m, z0_m, z0_to, f_cor)
-            return transfer_ustar(us_m, z0_m, d_m, z0_to, d_to, zb)
+            if blend.all():
+                return transfer_ustar(us_m, z0_m, d_m, z0_to, d_to, zb)
+            return np.where(blend, transfer_ustar(us_m, z0_m, d_m, z0_to, d_to, zb),
+                            transfer_ustar_drag_law(us_m, z0_m, z0_to, f_cor))
         with np.errstate(invalid="ignore", divide="ignore"):
             if water.any():
                 z0_w = CHARNOCK_START_Z0 + 0.0 * us_m
