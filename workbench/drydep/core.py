@@ -376,10 +376,13 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         else:
             by_month = _seasons.category_from_month(month, site("latitude"))
             if opt.season_rule == "surface_state":
-                by_month, lai_src = _canopy.lai_season(met_surf, times)
+                by_month, lai_src = _canopy.lai_season(surf, receptors, times)
             base = by_month + 0.0 * temp
             if _FROST in block:  # found beforehand on the whole record (dask blocks)
                 seen = st(_FROST) > 0.5
+            elif f"{_FROST}|0" in block:  # the same, one variable per receptor
+                seen = np.concatenate([st(f"{_FROST}|{j}") for j in range(len(receptors))],
+                                      axis=1) > 0.5
             else:  # the whole record is here
                 seen = _seasons.autumn_frost_seen_array(
                     by_month, temp, times.astype("datetime64[Y]").astype(np.int64)[None, None, :])
@@ -555,8 +558,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         "ra_height_raised": srt(raised, "1", "sampler below d + m z0: Ra taken higher"),
         "ustar_floor_used": srt(floor_used, "1", "friction velocity raised to its floor"),
         "ra_cap_used": srt(cap_used, "1", "aerodynamic resistance lowered to its cap"),
-        "seasonal_category": sto(cat, "1", "Wesely seasonal category (1-5)"),
-        "seasonal_source": sto(cat_src, "1", "why this seasonal category",
+        "seasonal_category": srt(cat, "1", "Wesely seasonal category (1-5)"),
+        "seasonal_source": srt(cat_src, "1", "why this seasonal category",
                                codes=str(_seasons.SOURCE)),
         "surface_wet": srt(wet, "1", "surface wetness used (1 wet, 0 dry)"),
         "wet_kind": srt(kind, "1", "kind of wetness: 0 dry, 1 dew, 2 rain"),
@@ -722,13 +725,17 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         aug = aug.assign({_PREV: met["precipitation"].astype(float).shift(time=1)})
         if opt.seasonal_category is None:
             base = None
-            if opt.season_rule == "surface_state":
-                base = xr.DataArray(_canopy.lai_season(met_surf, met["time"].values)[0][:, 0, :],
-                                    dims=("site", "time"),
+            if opt.season_rule == "surface_state":   # per receptor (site, receptor, time)
+                base = xr.DataArray(_canopy.lai_season(surf, receptors, met["time"].values)[0],
+                                    dims=("site", "receptor", "time"),
                                     coords={"site": met["site"].values, "time": met["time"]})
             seen = _seasons.autumn_frost_seen(met["time"], surf["latitude"].astype(float),
                                               met["temperature"].astype(float), base=base)
-            aug = aug.assign({_FROST: seen.astype(float)})
+            if base is None:
+                aug = aug.assign({_FROST: seen.astype(float)})
+            else:
+                aug = aug.assign({f"{_FROST}|{j}": seen.isel(receptor=j).astype(float)
+                                  for j in range(len(receptors))})
     aug = aug.reset_coords(drop=True).transpose("site", "time")
     if lazy:
         first = next(v for v in aug.data_vars.values() if v.chunks is not None)
