@@ -2,7 +2,8 @@
 
 :func:`velocities` strings the pure functions of :mod:`workbench.surface` and of the
 scheme modules together, vectorized over (site, receptor, time) with xarray, so
-that a dask-chunked met Dataset stays lazy.  Steps (docs/methods_dry.md):
+that a dask-chunked met Dataset stays lazy.  Steps (docs/methods_dry_particles.md
+sections 1-6 and 10, docs/methods_dry.md sections 7-9):
 
 The hourly work runs on plain numpy arrays shaped (site, receptor, time) with
 broadcasting; on a dask-backed met Dataset the same block function runs on each
@@ -516,7 +517,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             out["nh3_compensation_point"] = srt(gp["nh3bd|chi_s"], "mol m-3",
                                                 "NH3 stomatal compensation point chi_s")
         # each distinct mode once, all of them in one call (shared surface terms); the
-        # mass weight of each mode per site (docs/methods_dry.md, particle size split)
+        # mass weight of each mode per site (docs/methods_dry_particles.md 10.1)
         parts = {sp: _fractions.mode_weights(
             surf, sp, opt, st(f"coarse_fraction_{sp}")[:, 0, :]
             if f"coarse_fraction_{sp}" in block else None) for sp in opt.particles}

@@ -133,7 +133,7 @@ class DryOptions:
         surface; wesely1989: air), the default before. docs/methods_dry.md section 8.
     season_rule : str
         ``"surface_state"`` (default): Wesely's category from the leaf-area index of
-        the site's own surface (green, greening, browning, dormant), then frost and
+        each receptor's own surface (green, greening, browning, dormant), then frost and
         snow, so that the stomata follow the canopy rather than the calendar (where the
         LAI does not vary the month rule stays); ``"month"``: from the calendar month
         and latitude, then frost and snow (the default before).  docs/methods_dry.md
@@ -162,7 +162,7 @@ class DryOptions:
         blending height gives 0.79. ``"blending_height"``: the two log profiles
         share the wind at `blending_height` (Wieringa 1986; Mason 1988): a receptor
         patch inside a landscape like the mast's (a woodlot in farmland).
-        docs/methods_dry.md section 6, friction velocity over a forest.
+        docs/methods_dry_particles.md section 6, friction velocity over a forest.
     ustar_transfer_receptor : dict
         The transfer of single receptors, overriding `ustar_transfer`: keyed by class
         (``"deciduous_forest"``) or by site and class (``"farm/deciduous_forest"``),
