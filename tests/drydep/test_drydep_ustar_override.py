@@ -143,3 +143,27 @@ def test_scenario_site_override_reaches_the_engine(tmp_path):
     got = receptor_transfers(surf, list(surf["receptor"].values), DryOptions())
     assert dict(zip(surf["receptor"].values, got[0])) == {
         "grass": "drag_law", "deciduous_forest": "blending_height"}
+
+
+@pytest.mark.parametrize("body, fragment", [
+    ('[dry.ustar_transfer_receptor]\n"alpha/grass" = "woodlot"\n',
+     "line 3, column 'dry.ustar_transfer_receptor': invalid value"),
+    ('[sites.alpha]\nustar_transfer = {deciduous_forest = "drag_law"}\n',
+     "line 4, column 'sites.alpha.ustar_transfer': ustar_transfer for a surface the site "
+     "does not have"),
+    ('[sites.alpha]\nustar_transfer = {conifer_forest = "blend"}\n',
+     "line 4, column 'sites.alpha.ustar_transfer': unknown transfer of u*"),
+])
+def test_scenario_errors_are_located(tmp_path, body, fragment):
+    import sys
+    from pathlib import Path
+    from workbench.errors import ScenarioError
+    from workbench.scenario import load_scenario
+    sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+    from tiny_inputs import SITES
+    (tmp_path / "s.toml").write_text(SITES)
+    p = tmp_path / "sc.toml"
+    p.write_text('[inputs]\nsites = "s.toml"\n' + body)
+    with pytest.raises((ScenarioError, InputError)) as exc:
+        load_scenario(p)
+    assert fragment in str(exc.value), str(exc.value)
