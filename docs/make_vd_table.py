@@ -85,7 +85,8 @@ def _rows(means, active, transfer):
 
 
 def _table(rows) -> list:
-    head = "| site receptor | " + " | ".join(f"{g} {SHORT[s]}" for g in GASES for s in SCHEMES) + " |"
+    cols = [f"{g} {SHORT[s]}" for g in GASES for s in SCHEMES]
+    head = "| site receptor | " + " | ".join(cols) + " |"
     lines = [head, "|---|" + "---|" * (len(GASES) * len(SCHEMES))]
     for s, r, vals in rows:
         lines.append(f"| {s} {r} | " + " | ".join(f"{v:.2f}" for v in vals) + " |")
@@ -107,11 +108,11 @@ def tables(means, active) -> str:
     other = _rows(means, active, TRANSFERS[1])
     changed = [o for b, o in zip(base, other) if b[2] != o[2]]
     lines = [f"Annual mean Vd [cm/s], demo year {YEAR[0][:4]}, `ustar_transfer = "
-             f"\"{TRANSFERS[0]}\"` (the default), every other option at its default:", ""]
+             f"\"{TRANSFERS[0]}\"` (the default),", "every other option at its default:", ""]
     lines += _table(base)
     lines += ["", f"With `ustar_transfer = \"{TRANSFERS[1]}\"` the rows that differ:", ""]
     lines += _table(changed)
-    lines += ["", "Against the common-practice ranges (review papers recalled from memory; "
+    lines += ["", "Against the common-practice ranges (review papers recalled from memory;",
               "the span over the group's receptors):", "",
               "| range [cm/s] | " + " | ".join(f"{SHORT[s]} {t.replace('_', ' ')}"
                                               for t in TRANSFERS for s in SCHEMES) + " |",
@@ -120,9 +121,9 @@ def tables(means, active) -> str:
         cells = [_range_cell(means, t, s, gas, group, lo, hi) for t in TRANSFERS
                  for s in SCHEMES]
         lines.append(f"| {gas} {GROUP_NAMES[group]} {lo:g}-{hi:g} | " + " | ".join(cells) + " |")
-    lines += ["", "(forests: ridge conifer_forest, farm deciduous_forest; grass: ridge, fell, "
-              "farm; land: every receptor but water; semi-natural: ridge moorland and conifer, "
-              "fell grass and moorland, mere wetland.)"]
+    lines += ["", "(forests: ridge conifer_forest, farm deciduous_forest; grass: ridge, fell, farm;",
+              "land: every receptor but water; semi-natural: ridge moorland and conifer, fell",
+              "grass and moorland, mere wetland.)"]
     return "\n".join(lines)
 
 

@@ -108,7 +108,8 @@ def met_with_air(met, air, surfaces, dry_options):
     """The met Dataset with the hourly inputs the dry options take from the air
     concentrations (site, time) [1]: the NH3/SO2 ratio of ``so2_codeposition``, the acid
     ratio of ``nh3_acid_ratio_from_air`` and the sampler coarse fractions of
-    ``sampler_coarse_fraction`` (docs/methods_dry.md, docs/methods_dry_particles.md).  `met` itself when none is asked.
+    ``sampler_coarse_fraction`` (docs/methods_dry.md, docs/methods_dry_particles.md).
+    `met` itself when none is asked.
     """
     if air is None or not (dry_options.so2_codeposition or dry_options.nh3_acid_ratio_from_air
                            or dry_options.sampler_coarse_fraction):
