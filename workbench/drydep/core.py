@@ -128,6 +128,8 @@ def receptor_transfers(surf, receptors, opt):
         ``"drag_law"`` or ``"blending_height"``, shape (site, receptor).
     """
     over = opt.ustar_transfer_receptor
+    if not over and "ustar_transfer" not in surf:   # the common case: one transfer
+        return np.full((surf.sizes["site"], len(receptors)), opt.ustar_transfer, dtype=object)
     sites = [str(x) for x in surf["site"].values]
     table = (surf["ustar_transfer"].transpose("site", "receptor").values
              if "ustar_transfer" in surf else np.full((len(sites), len(receptors)), ""))
