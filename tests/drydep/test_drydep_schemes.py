@@ -90,8 +90,8 @@ TRANSFERS = ("drag_law", "blending_height")
 #: 9.2), by (transfer, scheme, gas, group).  The drag law is the default.
 MISSES = {
     ("drag_law", "wesely1989", "SO2", "forest"): "ridge conifer 0.48, farm deciduous 0.43: "
-    "Wesely's Table 1 dry cuticle and closed stomata of categories 2-3 (dry-hour Rc median "
-    "723 and 1018 s/m, dry-hour Vd 0.18 and 0.21 cm/s); wet hours (38 %, 29 %) give "
+    "Wesely's Table 1 dry cuticle (and, for the deciduous stand, no stomata in categories 2-3; "
+    "dry-hour Rc median 723 and 1018 s/m, dry-hour Vd 0.18 and 0.21 cm/s); wet hours (38 %, 29 %) give "
     "0.96 cm/s; transcription checked (docs/methods_dry.md 9.2)",
     ("drag_law", "zhang2003", "SO2", "forest"): "farm deciduous 0.49 (ridge conifer 0.96): "
     "Zhang's cuticle (1/u*) and in-canopy (1/u*^2) resistances at the landscape-scale u* "
@@ -104,7 +104,7 @@ MISSES = {
     "cuticle and ground uptake (alpha 0, beta 0.8); with the stomata shut NO2 is still "
     "0.13-0.25, so no mesophyll resistance brings it into range (docs/methods_dry.md 9.2)",
     ("blending_height", "wesely1989", "SO2", "forest"): "ridge conifer 0.55, farm deciduous "
-    "0.48: Wesely's dry cuticle and the closed stomata of categories 2-3 "
+    "0.48: Wesely's dry cuticle and the deciduous stand's leafless categories 2-3 "
     "(docs/methods_dry.md 9.2)",
     ("blending_height", "zhang2003", "NO2", "land"): "0.23-0.48: NO2 takes 0.8 of O3's "
     "cuticle and ground uptake, which grows with u* (docs/methods_dry.md 9.2)",
