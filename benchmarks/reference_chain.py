@@ -269,10 +269,10 @@ def build(jit=None):
         for s in range(len(temp)):
             for t in range(len(temp[s])):
                 terms = air(temp[s][t], rh[s][t], k_down[s][t], pres[s][t], p_std[s], cloud[s][t],
-                            cat[s][t], tabs, nodes, nw)
+                            cat[s][0][t], tabs, nodes, nw)  # (site, receptor, time)
                 for r in range(len(z0_s[s])):
                     cell(temp[s][t], k_down[s][t], h_meas[s][t], snow[s][t], cloud[s][t],
-                         us_m[s][t], h_m[s][t], cat[s][t], kind[s][r][t], wet[s][r][t], z0_m[s],
+                         us_m[s][t], h_m[s][t], cat[s][r][t], kind[s][r][t], wet[s][r][t], z0_m[s],
                          d_m[s], z0_s[s][r], d_r[s][r], z_samp[s], slope[s], albedo[s][r],
                          pt_alpha[s][r], wrow[s][r], zrow[s][r], tabs, nodes, nw, terms,
                          out[s][r][t])

@@ -46,6 +46,7 @@ def _explicit(base):
         ("dry", "particle_modes"): {**base["dry"].particle_modes, "pNO3": fine},
         ("dry", "nh3_emission_potential"): {"grass": 300.0},
         ("dry", "rc_scale"): {"SO2": 2.0},
+        ("dry", "ustar_transfer_receptor"): {"farm/deciduous_forest": "blending_height"},
         ("dry", "sampler_coarse_fraction"): {"ridge/RDG-F1": {"pNO3": 0.45}},
         ("budget", "diurnal_profile"): {"NH3": [1.0] * 12 + [2.0] * 12},
         ("budget", "preferred_method"): {"NH3": "denuder"},

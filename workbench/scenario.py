@@ -53,7 +53,7 @@ SCHEMA: dict = {
 SITE_OVERRIDES = ("canopy_height_m", "roughness_length_m", "displacement_height_m",
                   "terrain_slope_deg", "lai", "lai_min", "lai_max", "collector",
                   "receptors", "met_land_use", "wind_height_m", "sampler_height_m",
-                  "coast_distance_km", "coarse_fraction")
+                  "coast_distance_km", "coarse_fraction", "ustar_transfer")
 
 
 def option_sections() -> dict:
@@ -144,6 +144,11 @@ def _line_of(text_lines, section, key=None):
     """1-based line of `[section]` or of `key` inside it (best effort)."""
     sec_pat = re.compile(rf"^\s*\[\s*{re.escape(section)}\s*\]")
     start = next((i for i, ln in enumerate(text_lines) if sec_pat.match(ln)), None)
+    if key is not None:   # a table option written as its own [section.key] table
+        sub = re.compile(rf"^\s*\[\s*{re.escape(section)}\.{re.escape(key)}\s*\]")
+        found = next((i for i, ln in enumerate(text_lines) if sub.match(ln)), None)
+        if found is not None:
+            return found + 1
     if key is None or start is None:
         return None if start is None else start + 1
     key_pat = re.compile(rf"^\s*\"?{re.escape(key)}\"?\s*=")

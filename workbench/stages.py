@@ -37,7 +37,8 @@ VELOCITY_OPTIONS = ("gas_scheme", "gases", "particles", "wetness_rule", "dew_rul
                     "size_nodes", "unstable_iterations", "charnock_iterations",
                     "nh3_treatment", "nh3_emission_potential", "nh3_acid_ratio",
                     "hno3_rc_floor", "rc_scale", "components", "so2_codeposition",
-                    "nh3_cuticle", "nh3_acid_ratio_from_air", "sampler_coarse_fraction")
+                    "nh3_cuticle", "nh3_acid_ratio_from_air", "sampler_coarse_fraction",
+                    "ustar_transfer_receptor")
 #: Budget options of the assembly: completeness, status, bulk collectors and basis, and
 #: every other one for its provenance attribute (it runs on the dry rows that read them).
 BUDGET_OPTIONS = tuple(f.name for f in dataclasses.fields(BudgetOptions))
@@ -107,7 +108,8 @@ def met_with_air(met, air, surfaces, dry_options):
     """The met Dataset with the hourly inputs the dry options take from the air
     concentrations (site, time) [1]: the NH3/SO2 ratio of ``so2_codeposition``, the acid
     ratio of ``nh3_acid_ratio_from_air`` and the sampler coarse fractions of
-    ``sampler_coarse_fraction`` (docs/methods_dry.md).  `met` itself when none is asked.
+    ``sampler_coarse_fraction`` (docs/methods_dry.md, docs/methods_dry_particles.md).
+    `met` itself when none is asked.
     """
     if air is None or not (dry_options.so2_codeposition or dry_options.nh3_acid_ratio_from_air
                            or dry_options.sampler_coarse_fraction):

@@ -86,17 +86,27 @@ def test_surface_state_season_through_the_engine(synthetic):
     s2 = surf.assign(lai=lai)
     opt = DryOptions(particles=(), gases=("SO2",), season_rule="surface_state")
     ds = velocities(met, s2, opt)
-    cat = ds["seasonal_category"].sel(site="bramble_moor")
+    cat = ds["seasonal_category"].sel(site="bramble_moor", receptor="grass")
     month = ds["time"].dt.month
     assert (cat.where(month == 5, drop=True) == 1).all()          # green
     assert (cat.where(month == 4, drop=True) == 5).all()          # greening
-    assert (ds["seasonal_source"].sel(site="bramble_moor") == 4).all()
+    src = ds["seasonal_source"].sel(site="bramble_moor")
+    assert (src.sel(receptor="grass") == 4).all()
+    # each receptor by its own LAI: the deciduous stand beside the field is green in May
+    # (its class range peaks in July), not dormant with the harvested field in June; the
+    # evergreen conifer keeps the month rule (source 0)
+    dec = ds["seasonal_category"].sel(site="bramble_moor", receptor="deciduous_forest")
+    assert (dec.where(month == 5, drop=True) == 1).all()
+    assert (src.sel(receptor="deciduous_forest") == 4).all()
+    assert (src.sel(receptor="conifer_forest") == 0).all()
+    assert (ds["seasonal_category"].sel(site="bramble_moor", receptor="conifer_forest").where(
+        month == 5, drop=True) == 5).all()
     month_rule = velocities(met, s2, DryOptions(particles=(), gases=("SO2",),
                                                 season_rule="month"))
     default = velocities(met, s2, DryOptions(particles=(), gases=("SO2",)))
     np.testing.assert_array_equal(default["seasonal_category"].values,
                                   ds["seasonal_category"].values)
-    assert (month_rule["seasonal_category"].sel(site="bramble_moor").where(
+    assert (month_rule["seasonal_category"].sel(site="bramble_moor", receptor="grass").where(
         month == 5, drop=True) == 5).all()
     # the same hours through dask blocks (the frost rule found beforehand)
     lazy = velocities(met.chunk({"time": 24 * 10}), s2, opt).compute()

@@ -30,32 +30,37 @@ def hourly_lai(surf, receptors, times):
     return np.where(np.isnan(given), default, given)
 
 
-def lai_season(surf, times):
-    """Seasonal category from the LAI cycle of each site's own surface (site, 1, time).
+def lai_season(surf, receptors, times):
+    """Seasonal category of each receptor from its own LAI cycle (site, receptor, time).
 
-    The catalogue's monthly LAI of the site's own surface, else its class's default
-    range (as :func:`hourly_lai`), through :func:`workbench.drydep.seasons.category_from_lai`
-    (the month rule where the LAI does not vary).  Returns the category and its
+    Each receptor's monthly LAI as :func:`hourly_lai` takes it (the catalogue's where
+    given, else its class's default range), through
+    :func:`workbench.drydep.seasons.category_from_lai` (the month rule where the LAI
+    does not vary: evergreen, bare).  Before, every receptor of a site took the season
+    of the site's own surface, so that a crop's harvest closed the stomata of a forest
+    receptor beside it (docs/methods_dry.md section 7).  Returns the category and its
     source code [-].
+
+    Parameters
+    ----------
+    surf : xarray.Dataset
+        The receptor surfaces (site, receptor), with ``latitude`` and optionally ``lai``.
+    receptors : sequence of str
+        Our classes, along the receptor dimension of `surf`.
+    times : numpy.ndarray of datetime64
     """
-    lat = np.asarray(surf["latitude"].values, float)[:, None]
-    months = np.arange(1, 13)[None, :]
-    own = [str(x) for x in surf["land_use"].values]
-    lo = np.array([landuse.DEFAULT_LAI[r][0] for r in own])[:, None]
-    hi = np.array([landuse.DEFAULT_LAI[r][1] for r in own])[:, None]
-    lai = landuse.seasonal_lai(lo, hi, months, lat)
+    lat = np.asarray(surf["latitude"].values, float)[:, None, None]
+    months = np.arange(1, 13)[None, None, :]
+    lo = np.array([landuse.DEFAULT_LAI[r][0] for r in receptors])[None, :, None]
+    hi = np.array([landuse.DEFAULT_LAI[r][1] for r in receptors])[None, :, None]
+    lai = landuse.seasonal_lai(lo, hi, months, lat) + 0.0 * lat
     if "lai" in surf:
-        mine = surf["is_site_surface"].values.astype(bool)
         given = np.asarray(surf["lai"].transpose("site", "receptor", "month").values, float)
-        given = np.where(mine[:, :, None], given, np.nan)
-        has = np.isfinite(given).any(axis=1)
-        with np.errstate(all="ignore"):
-            lai = np.where(has, np.nanmax(np.where(np.isfinite(given), given, -np.inf), axis=1),
-                           lai)
-    cat_m, src_m = seasons.category_from_lai(
-        lai, seasons.category_from_month(months + 0 * lat.astype(int), lat))
+        lai = np.where(np.isnan(given), lai, given)
+    by_month = seasons.category_from_month(months + 0 * lat.astype(int), lat)
+    cat_m, src_m = seasons.category_from_lai(lai, np.broadcast_to(by_month, lai.shape))
     idx = seasons.calendar_month(times) - 1
-    return cat_m[:, None, idx], src_m[:, None, idx]
+    return cat_m[:, :, idx], src_m[:, :, idx]
 
 
 def cos_zenith(times, site):

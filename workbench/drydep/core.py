@@ -2,7 +2,8 @@
 
 :func:`velocities` strings the pure functions of :mod:`workbench.surface` and of the
 scheme modules together, vectorized over (site, receptor, time) with xarray, so
-that a dask-chunked met Dataset stays lazy.  Steps (docs/methods_dry.md):
+that a dask-chunked met Dataset stays lazy.  Steps (docs/methods_dry_particles.md
+sections 1-6 and 10, docs/methods_dry.md sections 7-9):
 
 The hourly work runs on plain numpy arrays shaped (site, receptor, time) with
 broadcasting; on a dask-backed met Dataset the same block function runs on each
@@ -106,6 +107,39 @@ def _met_surface(surf, receptors, opt):
     return names, np.asarray(z0, float), np.asarray(d, float)
 
 
+def receptor_transfers(surf, receptors, opt):
+    """The transfer of u* of each site and receptor (site, receptor) [-].
+
+    ``opt.ustar_transfer_receptor["<site>/<class>"]``, else the site's own table (the
+    ``ustar_transfer`` variable of `surf`, from sites.toml's ``[site.ustar_transfer]``;
+    empty: not set), else ``opt.ustar_transfer_receptor["<class>"]``, else
+    ``opt.ustar_transfer``.
+
+    Parameters
+    ----------
+    surf : xarray.Dataset
+        The receptor surfaces (site, receptor).
+    receptors : sequence of str
+    opt : DryOptions
+
+    Returns
+    -------
+    numpy.ndarray of str
+        ``"drag_law"`` or ``"blending_height"``, shape (site, receptor).
+    """
+    over = opt.ustar_transfer_receptor
+    if not over and "ustar_transfer" not in surf:   # the common case: one transfer
+        return np.full((surf.sizes["site"], len(receptors)), opt.ustar_transfer, dtype=object)
+    sites = [str(x) for x in surf["site"].values]
+    table = (surf["ustar_transfer"].transpose("site", "receptor").values
+             if "ustar_transfer" in surf else np.full((len(sites), len(receptors)), ""))
+    out = np.empty((len(sites), len(receptors)), dtype=object)
+    for i, s in enumerate(sites):          # sites x receptors names, not hours
+        for j, r in enumerate(receptors):
+            out[i, j] = over.get(f"{s}/{r}") or table[i, j] or over.get(r) or opt.ustar_transfer
+    return out
+
+
 def _receptor_roughness(surf, receptors, opt):
     z0, d = land_use_roughness(receptors, surf["canopy_height"].values.astype(float),
                                surf["roughness_length"].values.astype(float),
@@ -117,7 +151,8 @@ def _receptor_roughness(surf, receptors, opt):
 #: the options each reads: a step is computed again only when one of them, or a step
 #: it is run on, changes.  Steps 1-4 (air, sun, surface layer, receptors' u*, L, Ra):
 _MICROMET_OPTIONS = ("roughness", "ustar_floor", "ra_cap", "ra_min_height_z0",
-                     "blending_height", "ustar_transfer", "night_cloud_cover", "unstable_iterations",
+                     "blending_height", "ustar_transfer", "ustar_transfer_receptor",
+                     "night_cloud_cover", "unstable_iterations",
                      "charnock_iterations")
 #: Step 5 (season and wetness; the dew rule as the gas scheme resolves it).
 _STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule", "dew_rule", "gas_scheme")
@@ -288,10 +323,16 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         zb = opt.blending_height
         f_cor = coriolis_parameter(site("latitude"))
 
-        def transfer(z0_to, d_to):  # u* over the receptor (option ustar_transfer)
-            if opt.ustar_transfer == "drag_law":
+        blend = receptor_transfers(surf, receptors, opt) == "blending_height"
+        blend = blend[:, :, None]
+
+        def transfer(z0_to, d_to):  # u* over the receptor (ustar_transfer, per receptor)
+            if not blend.any():
                 return transfer_ustar_drag_law(us_m, z0_m, z0_to, f_cor)
-            return transfer_ustar(us_m, z0_m, d_m, z0_to, d_to, zb)
+            if blend.all():
+                return transfer_ustar(us_m, z0_m, d_m, z0_to, d_to, zb)
+            return np.where(blend, transfer_ustar(us_m, z0_m, d_m, z0_to, d_to, zb),
+                            transfer_ustar_drag_law(us_m, z0_m, z0_to, f_cor))
         with np.errstate(invalid="ignore", divide="ignore"):
             if water.any():
                 z0_w = CHARNOCK_START_Z0 + 0.0 * us_m
@@ -338,10 +379,13 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         else:
             by_month = _seasons.category_from_month(month, site("latitude"))
             if opt.season_rule == "surface_state":
-                by_month, lai_src = _canopy.lai_season(met_surf, times)
+                by_month, lai_src = _canopy.lai_season(surf, receptors, times)
             base = by_month + 0.0 * temp
             if _FROST in block:  # found beforehand on the whole record (dask blocks)
                 seen = st(_FROST) > 0.5
+            elif f"{_FROST}|0" in block:  # the same, one variable per receptor
+                seen = np.concatenate([st(f"{_FROST}|{j}") for j in range(len(receptors))],
+                                      axis=1) > 0.5
             else:  # the whole record is here
                 seen = _seasons.autumn_frost_seen_array(
                     by_month, temp, times.astype("datetime64[Y]").astype(np.int64)[None, None, :])
@@ -475,7 +519,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             out["nh3_compensation_point"] = srt(gp["nh3bd|chi_s"], "mol m-3",
                                                 "NH3 stomatal compensation point chi_s")
         # each distinct mode once, all of them in one call (shared surface terms); the
-        # mass weight of each mode per site (docs/methods_dry.md, particle size split)
+        # mass weight of each mode per site (docs/methods_dry_particles.md 10.1)
         parts = {sp: _fractions.mode_weights(
             surf, sp, opt, st(f"coarse_fraction_{sp}")[:, 0, :]
             if f"coarse_fraction_{sp}" in block else None) for sp in opt.particles}
@@ -517,8 +561,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         "ra_height_raised": srt(raised, "1", "sampler below d + m z0: Ra taken higher"),
         "ustar_floor_used": srt(floor_used, "1", "friction velocity raised to its floor"),
         "ra_cap_used": srt(cap_used, "1", "aerodynamic resistance lowered to its cap"),
-        "seasonal_category": sto(cat, "1", "Wesely seasonal category (1-5)"),
-        "seasonal_source": sto(cat_src, "1", "why this seasonal category",
+        "seasonal_category": srt(cat, "1", "Wesely seasonal category (1-5)"),
+        "seasonal_source": srt(cat_src, "1", "why this seasonal category",
                                codes=str(_seasons.SOURCE)),
         "surface_wet": srt(wet, "1", "surface wetness used (1 wet, 0 dry)"),
         "wet_kind": srt(kind, "1", "kind of wetness: 0 dry, 1 dew, 2 rain"),
@@ -684,13 +728,17 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         aug = aug.assign({_PREV: met["precipitation"].astype(float).shift(time=1)})
         if opt.seasonal_category is None:
             base = None
-            if opt.season_rule == "surface_state":
-                base = xr.DataArray(_canopy.lai_season(met_surf, met["time"].values)[0][:, 0, :],
-                                    dims=("site", "time"),
+            if opt.season_rule == "surface_state":   # per receptor (site, receptor, time)
+                base = xr.DataArray(_canopy.lai_season(surf, receptors, met["time"].values)[0],
+                                    dims=("site", "receptor", "time"),
                                     coords={"site": met["site"].values, "time": met["time"]})
             seen = _seasons.autumn_frost_seen(met["time"], surf["latitude"].astype(float),
                                               met["temperature"].astype(float), base=base)
-            aug = aug.assign({_FROST: seen.astype(float)})
+            if base is None:
+                aug = aug.assign({_FROST: seen.astype(float)})
+            else:
+                aug = aug.assign({f"{_FROST}|{j}": seen.isel(receptor=j).astype(float)
+                                  for j in range(len(receptors))})
     aug = aug.reset_coords(drop=True).transpose("site", "time")
     if lazy:
         first = next(v for v in aug.data_vars.values() if v.chunks is not None)

@@ -133,7 +133,7 @@ class DryOptions:
         surface; wesely1989: air), the default before. docs/methods_dry.md section 8.
     season_rule : str
         ``"surface_state"`` (default): Wesely's category from the leaf-area index of
-        the site's own surface (green, greening, browning, dormant), then frost and
+        each receptor's own surface (green, greening, browning, dormant), then frost and
         snow, so that the stomata follow the canopy rather than the calendar (where the
         LAI does not vary the month rule stays); ``"month"``: from the calendar month
         and latitude, then frost and snow (the default before).  docs/methods_dry.md
@@ -162,7 +162,15 @@ class DryOptions:
         blending height gives 0.79. ``"blending_height"``: the two log profiles
         share the wind at `blending_height` (Wieringa 1986; Mason 1988): a receptor
         patch inside a landscape like the mast's (a woodlot in farmland).
-        docs/methods_dry.md section 6, friction velocity over a forest.
+        docs/methods_dry_particles.md section 6, friction velocity over a forest.
+    ustar_transfer_receptor : dict
+        The transfer of single receptors, overriding `ustar_transfer`: keyed by class
+        (``"deciduous_forest"``) or by site and class (``"farm/deciduous_forest"``),
+        each value ``"drag_law"`` or ``"blending_height"`` (e.g. a farm's deciduous
+        receptor that is a small woodlot in the mast's landscape).  sites.toml's
+        ``[site.ustar_transfer]`` (or the scenario's ``[sites.<id>] ustar_transfer``)
+        gives the site's own; precedence: ``"<site>/<class>"`` here, then the site's
+        table, then ``"<class>"`` here, then `ustar_transfer`.  Empty by default.
     night_cloud_cover : float
         Cloud cover used at night when the met file has none and it cannot be
         inferred from radiation (every such hour is flagged); a mid-range value, our
@@ -253,6 +261,7 @@ class DryOptions:
     ra_min_height_z0: float = 5.0
     blending_height: float = 60.0
     ustar_transfer: str = "drag_law"
+    ustar_transfer_receptor: dict = field(default_factory=dict)
     night_cloud_cover: float = 0.5
     roughness: dict = field(default_factory=dict)
     particle_modes: dict = field(default_factory=default_particle_modes)
@@ -290,6 +299,14 @@ class DryOptions:
         if self.ustar_transfer not in USTAR_TRANSFERS:
             raise ValueError(f"unknown ustar_transfer {self.ustar_transfer!r}; use one of "
                              f"{USTAR_TRANSFERS}")
+        from ..landuse import LAND_USE as _classes
+        for key, value in self.ustar_transfer_receptor.items():
+            if str(key).split("/")[-1] not in _classes or str(key).count("/") > 1 \
+                    or value not in USTAR_TRANSFERS:
+                raise ValueError(f"ustar_transfer_receptor: {key!r} = {value!r}; expected "
+                                 "'<class>' or '<site>/<class>' of our land-use classes ("
+                                 + ", ".join(_classes) + ") and one of "
+                                 + ", ".join(USTAR_TRANSFERS))
         if not self.coastal_distance >= 0:
             raise ValueError("coastal_distance must be >= 0 m")
         if self.nh3_treatment not in ("deposition_only", "bidirectional"):

@@ -45,7 +45,11 @@ SITE_KEYS = {
                           "inland particle size split)"),
     "coarse_fraction": (dict, False, "coarse mass fraction 0-1 per particle species, "
                         "e.g. {pNO3 = 0.3}"),
+    "ustar_transfer": (dict, False, "transfer of u* by the site's own surfaces, e.g. "
+                       "{deciduous_forest = \"blending_height\"} (docs/methods_dry_particles.md)"),
 }
+#: Transfers of u* a site's ``ustar_transfer`` table may name (DryOptions.ustar_transfer).
+USTAR_TRANSFERS = ("blending_height", "drag_law")
 #: Particle species a ``coarse_fraction`` table may name.
 PARTICLE_SPECIES = ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa")
 #: Gamma_s above this is beyond the values reported for freshly fertilised crops
@@ -80,6 +84,8 @@ class Site:
     nh3_emission_potential: dict = field(default_factory=dict)
     coast_distance_km: float | None = None
     coarse_fraction: dict = field(default_factory=dict)
+    #: receptor class -> transfer of u* (``[site.ustar_transfer]``)
+    ustar_transfer: dict = field(default_factory=dict)
     #: receptor -> {critical-load key: value} from ``[site.critical_loads.<receptor>]``
     receptor_critical_loads: dict = field(default_factory=dict)
 
@@ -142,6 +148,10 @@ class SiteCatalogue:
         :attr:`workbench.drydep.DryOptions.nh3_emission_potential`."""
         return {f"{s.id}/{c}": v for s in self for c, v in s.nh3_emission_potential.items()}
 
+    def ustar_transfer(self) -> dict:
+        """Every site's u* transfer by surface as ``{"<site>/<class>": transfer}``."""
+        return {f"{s.id}/{c}": v for s in self for c, v in s.ustar_transfer.items()}
+
     def utc_offsets(self, site_ids) -> np.ndarray:
         """Offsets [h] of the given site ids (array of str)."""
         table = {k: s.utc_offset_h for k, s in self.sites.items()}
@@ -195,7 +205,10 @@ class SiteCatalogue:
         z0 = np.full((n_s, n_r), np.nan)
         d = np.full((n_s, n_r), np.nan)
         lai = np.full((n_s, n_r, 12), np.nan)
+        transfer = np.full((n_s, n_r), "", dtype=object)
         for i, s in enumerate(self.sites.values()):
+            for j, r in enumerate(receptors):
+                transfer[i, j] = s.ustar_transfer.get(r, "")
             for j, r in enumerate(receptors):
                 active[i, j] = r in s.surfaces
                 own[i, j] = r == s.land_use
@@ -216,7 +229,10 @@ class SiteCatalogue:
             "displacement_height": xr.Variable(sr, d, {
                 "units": "m", "long_name": "displacement height override (NaN: from land use)"}),
             "lai": xr.Variable(sr + ("month",), lai, {
-                "units": "m2 m-2", "long_name": "monthly leaf-area index (NaN: not given)"})})
+                "units": "m2 m-2", "long_name": "monthly leaf-area index (NaN: not given)"}),
+            **({"ustar_transfer": xr.Variable(sr, transfer, {
+                "long_name": "transfer of u* from the wind mast (empty: the option's)"})}
+               if any(s.ustar_transfer for s in self.sites.values()) else {})})
 
 
 def _key_line(text_lines, block_starts, k, key):
@@ -226,6 +242,10 @@ def _key_line(text_lines, block_starts, k, key):
     pat = re.compile(rf"^\s*{re.escape(key)}\s*=")
     for i in range(start, end):
         if pat.match(text_lines[i]):
+            return i + 1
+    head = re.compile(rf"^\s*\[\s*site\.{re.escape(key)}\s*\]")   # a [site.<key>] table
+    for i in range(start, end):
+        if head.match(text_lines[i]):
             return i + 1
     return start + 1
 
@@ -431,6 +451,16 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
         if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 <= v <= 1:
             raise err("bad coarse fraction", "coarse_fraction", f"{key} = {v}",
                       "a mass fraction from 0 to 1")
+    transfer = dict(t.get("ustar_transfer", {}))
+    own = (t["land_use"],) + tuple(receptors)
+    for key, v in transfer.items():
+        if key not in own:
+            raise err("ustar_transfer for a surface the site does not have", "ustar_transfer",
+                      key, "one of the site's surfaces " + ", ".join(dict.fromkeys(own))
+                      + suggest(key, own))
+        if v not in USTAR_TRANSFERS:
+            raise err("unknown transfer of u*", "ustar_transfer", f"{key} = {v!r}",
+                      "one of " + ", ".join(USTAR_TRANSFERS) + suggest(str(v), USTAR_TRANSFERS))
     for key in ("displacement_height_m", "terrain_slope_deg", "coast_distance_km"):
         if key in t and t[key] < 0:
             raise err("negative value", key, t[key], "a value >= 0")
@@ -451,7 +481,7 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
         coarse_fraction={k2: float(v) for k2, v in coarse.items()},
         receptor_critical_loads={r: {k2: float(v) for k2, v in tb.items()}
                                  for r, tb in per_receptor.items()},
-        nh3_emission_potential=gamma)
+        nh3_emission_potential=gamma, ustar_transfer={k2: str(v) for k2, v in transfer.items()})
 
 
 def _nh3_emission_potential(t, err, notes, label, receptors) -> dict:
@@ -571,4 +601,6 @@ def site_dict(site: Site) -> dict:
         out["lai"] = list(site.lai)
     if site.nh3_emission_potential:
         out["nh3_emission_potential"] = dict(site.nh3_emission_potential)
+    if site.ustar_transfer:
+        out["ustar_transfer"] = dict(site.ustar_transfer)
     return out
