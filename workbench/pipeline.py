@@ -240,10 +240,33 @@ class Study:
         return self._surfaces_node(overrides).value
 
     def _velocities_node(self, dry_options, overrides=None, receptors=None) -> Node:
+        """Velocities of every site on `receptors`, or (None) of the wanted pairs: each
+        group of sites asking for the same receptors (:func:`stages.pair_groups`) is
+        computed on its own receptors, and the groups are put on the (site, receptor,
+        time) layout with the other pairs not computed (:func:`stages.wanted_pairs`)."""
         if self.inputs.met is None:
             return _NONE
         met = self._input("met", self.inputs.met)
         surf = self._surfaces_node(overrides)
+        if receptors is not None:
+            return self._group_velocities(dry_options, overrides, met, surf, receptors)
+        sites = tuple(str(s) for s in met.value["site"].values)
+        groups = _stages.pair_groups(surf.value, sites)
+        every = tuple(str(r) for r in surf.value["receptor"].values)
+        if len(groups) == 1 and groups[0][1] == every:       # every site wants every pair
+            return self._group_velocities(dry_options, overrides, met, surf, None)
+        parts = {}
+        for i, (ids, recs) in enumerate(groups):
+            sub = met if ids == sites else self._run("site_subset", deps={"data": met},
+                                                     params={"sites": ids})
+            parts[f"group{i:06d}"] = self._group_velocities(dry_options, overrides, sub,
+                                                            surf, recs)
+        return self._run("wanted_pairs", deps=parts,
+                         params={"sites": sites, "receptors": every})
+
+    def _group_velocities(self, dry_options, overrides, met: Node, surf: Node,
+                          receptors) -> Node:
+        """The velocities stage on the sites of `met` and some receptors (None: all)."""
         steps = self.graph.steps(f"{met.key}+{surf.key}", self.counts)
         return self._run("velocities", {"dry": dry_options},
                          {"met": met, "surfaces": surf, "catalogue": self._catalogue_node(overrides),
@@ -252,7 +275,8 @@ class Study:
                          {"receptors": None if receptors is None else tuple(receptors)})
 
     def velocities(self, dry_options, overrides=None, receptors=None):
-        """Hourly Vd and resistances (all receptors, or the ones named)."""
+        """Hourly Vd and resistances: of the pairs the sites ask for (the others NaN,
+        ``active`` false), or of every site on the receptors named."""
         return self._velocities_node(dry_options, overrides, receptors).value
 
     def receptors(self, overrides=None) -> list:
@@ -284,6 +308,9 @@ class Study:
                   if self._needs_model(fixed_velocity) else _NONE)
         ids = tuple(self.catalogue(overrides).ids)
         opts = {"budget": budget_options}
+        met = self._input("met", self.inputs.met)
+        slots = (self._run("hour_slots", deps={"met": met})    # one time axis for all
+                 if met.value is not None else _NONE)
         every = tuple(receptors) if receptors is not None else tuple(self.receptors(overrides))
 
         def content(var):
@@ -296,17 +323,17 @@ class Study:
             if sp in fixed_velocity:
                 axes = self._input("axes", (ids, every, self.inputs.met["time"].values),
                                    overrides, every)
-                out[sp] = self._run("vd_fill", opts, {"vd": axes},
+                out[sp] = self._run("vd_fill", opts, {"vd": axes, "slots": slots},
                                     {"name": sp, "fixed": fixed_velocity[sp], "sites": ids})
             elif vd.value is not None and f"vd_{sp}" in vd.value:
-                out[sp] = self._run("vd_fill", opts, {"vd": content(f"vd_{sp}")},
+                out[sp] = self._run("vd_fill", opts, {"vd": content(f"vd_{sp}"), "slots": slots},
                                     {"name": sp, "fixed": None, "sites": ids})
         if (getattr(dry_options, "nh3_treatment", "") == "bidirectional" and vd.value is not None
                 and "vd_NH3_bidirectional" in vd.value and "NH3" in out
                 and "NH3" not in fixed_velocity):                   # the net NH3 flux
             for name, var in _stages.NH3_EXCHANGE.items():
                 if var in vd.value:
-                    out[name] = self._run("vd_fill", opts, {"vd": content(var)},
+                    out[name] = self._run("vd_fill", opts, {"vd": content(var), "slots": slots},
                                           {"name": name, "fixed": None, "sites": ids})
         return out
 

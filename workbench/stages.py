@@ -17,7 +17,7 @@ import xarray as xr
 from . import periods as _periods
 from .budget import BudgetOptions, assemble, derived
 from .drycomponents import NH3_EXCHANGE, fill_arrays, prepare_velocities
-from .dryflux import fill_diurnal
+from .dryflux import fill_diurnal, hour_slots
 from .graph import declare, stage, variables_digest
 from .wet.options import WetOptions
 
@@ -103,6 +103,93 @@ def velocities(o, met, surfaces, catalogue, steps, receptors, air=None):
     return vd
 
 
+def pair_groups(surfaces, sites) -> list:
+    """The sites that ask for the same receptor surfaces, and those surfaces.
+
+    Parameters
+    ----------
+    surfaces : xarray.Dataset
+        Receptor surfaces (site, receptor) with ``active`` (the site wants it).
+    sites : sequence of str
+        The sites computed (those of the met), in their order.
+
+    Returns
+    -------
+    list of (tuple of str, tuple of str)
+        (sites, receptors in the order of `surfaces`) per distinct set of wanted
+        receptors, in the order of each set's first site.
+    """
+    recs = [str(r) for r in surfaces["receptor"].values]
+    act = surfaces["active"].sel(site=list(sites)).transpose("site", "receptor").values
+    groups = {}
+    for s, row in zip(sites, act):
+        groups.setdefault(tuple(r for r, a in zip(recs, row) if a), []).append(str(s))
+    return [(tuple(g), r) for r, g in groups.items()]
+
+
+@stage("site_subset")
+def site_subset(o, data, sites):
+    """Some sites of a (site, ...) Dataset, in the order given (the met of a group)."""
+    return data.sel(site=list(sites))
+
+
+def _fill(dtype):
+    """The value of a pair that is not computed: NaN, False, 0 or NaT by dtype."""
+    kind = np.dtype(dtype).kind
+    return {"f": np.nan, "c": np.nan, "b": False, "i": 0, "u": 0,
+            "M": np.datetime64("NaT"), "m": np.timedelta64("NaT")}.get(kind, "")
+
+
+#: The note of a velocities Dataset that holds the wanted pairs only.
+WANTED_PAIRS_NOTE = ("only the (site, receptor) pairs a site asks for (active) are computed; "
+                     "the others are NaN (0 or false for counts and flags)")
+
+
+@stage("wanted_pairs")
+def wanted_pairs(o, sites, receptors, **parts):
+    """The velocities of the groups of sites, each computed on its own receptors, put
+    on the (site, receptor, time) layout; the pairs no site asks for are not computed.
+
+    They hold NaN (0 or false for counts and flags; ``active`` false), as
+    :data:`WANTED_PAIRS_NOTE` says in the ``pairs`` attribute.  `parts` are the velocities of the groups (:func:`pair_groups`), in any order;
+    `sites` and `receptors` the axes of the result.
+    """
+    parts = [parts[k] for k in sorted(parts)]
+    first = parts[0]
+    s_pos = {s: i for i, s in enumerate(sites)}
+    r_pos = {r: i for i, r in enumerate(receptors)}
+    sizes = {"site": len(sites), "receptor": len(receptors)}
+    where = [{"site": np.array([s_pos[str(s)] for s in p["site"].values]),
+              "receptor": np.array([r_pos[str(r)] for r in p["receptor"].values])}
+             for p in parts]
+    out = {}
+    for name, v in first.data_vars.items():
+        v = v.variable
+        if "site" not in v.dims:
+            out[name] = v
+            continue
+        shape = tuple(sizes.get(d, v.shape[i]) for i, d in enumerate(v.dims))
+        a = np.full(shape, _fill(v.dtype), dtype=v.dtype)
+        axes = [v.dims.index(d) for d in ("site", "receptor") if d in v.dims]
+        view = np.moveaxis(a, axes, range(len(axes)))          # (site[, receptor], ...)
+        for p, w in zip(parts, where):
+            pv = p.variables[name]
+            got = np.moveaxis(np.asarray(pv.transpose(*v.dims).values), axes,
+                              range(len(axes)))
+            if len(axes) == 2:
+                view[w["site"][:, None], w["receptor"][None, :]] = got
+            else:
+                view[w["site"]] = got
+        a.flags.writeable = False                 # shared with the cache, as Vd's are
+        out[name] = xr.Variable(v.dims, a, v.attrs)
+    coords = {"site": list(sites), "receptor": list(receptors)}
+    coords.update({k: c.variable for k, c in first.coords.items()
+                   if not {"site", "receptor"} & set(c.dims)})
+    ds = xr.Dataset(out, coords=coords, attrs=dict(first.attrs))
+    ds.attrs["pairs"] = WANTED_PAIRS_NOTE
+    return ds
+
+
 def met_with_air(met, air, surfaces, dry_options):
     """The met Dataset with the hourly inputs the dry options take from the air
     concentrations (site, time) [1]: the NH3/SO2 ratio of ``so2_codeposition``, the acid
@@ -140,12 +227,19 @@ def vd_content(o, velocities, variable):
                             velocities.attrs.get("gas_scheme", "model"))
 
 
+@stage("hour_slots")
+def met_hour_slots(o, met):
+    """The (year, month, hour) and (month, hour) slots of the met's hours, shared by the
+    gap fills of every species (:func:`workbench.dryflux.hour_slots`)."""
+    return hour_slots(met["time"].values)
+
+
 @stage("vd_fill", reads={"budget": ("min_slot_hours",)}, counts_as="dry")
-def vd_fill(o, vd, name, fixed, sites):
+def vd_fill(o, vd, name, fixed, sites, slots=None):
     """Gap-filled hourly Vd of a species (its mean diurnal cycle), or a fixed Vd.
 
     `vd` is ``(DataArray, scheme)`` of the model or, for a fixed Vd, the
-    ``(ids, receptors, times)`` axes.
+    ``(ids, receptors, times)`` axes; `slots` the ``hour_slots`` of its time axis.
     """
     min_slot = o.budget.min_slot_hours
     if fixed is not None:
@@ -154,13 +248,13 @@ def vd_fill(o, vd, name, fixed, sites):
                                 dims=("site", "receptor", "time"),
                                 coords={"site": list(ids), "receptor": list(receptors),
                                         "time": times})
-        got = prepare_velocities(None, [name], {name: fixed}, min_slot, template)[name]
+        got = prepare_velocities(None, [name], {name: fixed}, min_slot, template, slots)[name]
     elif name in NH3_EXCHANGE:
-        filled, was = fill_diurnal(vd[0].load(), min_slot)
+        filled, was = fill_diurnal(vd[0].load(), min_slot, slots)
         got = (filled, was, "nh3 compensation point")
     else:
         ds = xr.Dataset({f"vd_{name}": vd[0]}, attrs={"gas_scheme": vd[1]})
-        got = prepare_velocities(ds, [name], {}, min_slot)[name]
+        got = prepare_velocities(ds, [name], {}, min_slot, slots=slots)[name]
     return fill_arrays(*got, sites)
 
 
