@@ -10,6 +10,7 @@ upstream results and inputs by name, and plain parameters.
 from __future__ import annotations
 
 import dataclasses
+import re
 
 import numpy as np
 import xarray as xr
@@ -133,6 +134,37 @@ def site_subset(o, data, sites):
     return data.sel(site=list(sites))
 
 
+_MODE_WEIGHT = re.compile(r"\), ([-+0-9.eE]+|nan|inf)\)")
+
+
+def _site_attrs(attrs, part_sites, sites) -> dict:
+    """The attributes of a variable over the groups' sites, as one dense call gives them:
+    per-site lists (and the per-site texts of a ``*_source``, joined by ", ") in site
+    order, the largest weight of each mode of ``modes`` (the maximum over the sites),
+    equal values as they are."""
+    out = {}
+    where = {str(s): i for i, s in enumerate(sites)}
+    for key, first in attrs[0].items():
+        vals = [a.get(key) for a in attrs]
+        per_site = isinstance(first, list) or (isinstance(first, str) and key.endswith("_source"))
+        split = [v if isinstance(v, list) else str(v).split(", ") for v in vals]
+        if per_site and all(len(v) == len(ps) for v, ps in zip(split, part_sites)):
+            merged = [None] * len(sites)
+            for v, ps in zip(split, part_sites):
+                for x, s in zip(v, ps):
+                    merged[where[str(s)]] = x
+            out[key] = merged if isinstance(first, list) else ", ".join(merged)
+        elif all(v == first for v in vals[1:]):
+            out[key] = first
+        elif key == "modes":
+            weights = np.array([[float(w) for w in _MODE_WEIGHT.findall(v)] for v in vals])
+            top = iter(repr(float(w)) for w in weights.max(axis=0))
+            out[key] = _MODE_WEIGHT.sub(lambda m: f"), {next(top)})", first)
+        else:
+            out[key] = first
+    return out
+
+
 def _fill(dtype):
     """The value of a pair that is not computed: NaN, False, 0 or NaT by dtype."""
     kind = np.dtype(dtype).kind
@@ -181,7 +213,8 @@ def wanted_pairs(o, sites, receptors, **parts):
             else:
                 view[w["site"]] = got
         a.flags.writeable = False                 # shared with the cache, as Vd's are
-        out[name] = xr.Variable(v.dims, a, v.attrs)
+        out[name] = xr.Variable(v.dims, a, _site_attrs([p.variables[name].attrs for p in parts],
+                                                       [p["site"].values for p in parts], sites))
     coords = {"site": list(sites), "receptor": list(receptors)}
     coords.update({k: c.variable for k, c in first.coords.items()
                    if not {"site", "receptor"} & set(c.dims)})
