@@ -174,7 +174,24 @@ def _fill(dtype):
 
 #: The note of a velocities Dataset that holds the wanted pairs only.
 WANTED_PAIRS_NOTE = ("only the (site, receptor) pairs a site asks for (active) are computed; "
-                     "the others are NaN (0 or false for counts and flags)")
+                     "the others are NaN (0 or false for counts and flags); the hourly paths "
+                     "of Rc and the diagnostics of the steps are left out (Study.velocities "
+                     "with receptors= gives every variable)")
+#: Hourly (site, receptor, time) variables of a whole run's velocities: what the budget
+#: reads (``vd_*``, the NH3 exchange) and what velocities.nc writes (Ra, Rb, Rc and Vd,
+#: u*, L, z0, wetness and the flags counted).  The Rc paths and the steps' diagnostics,
+#: half of the bytes, stay in the graph's group results.
+WHOLE_RUN_HOURLY = ("friction_velocity", "obukhov_length", "ra", "roughness_length",
+                    "surface_wet", "ustar_floor_used", "ra_cap_used", "ra_height_raised",
+                    *NH3_EXCHANGE.values())
+
+
+def _kept(name, dims) -> bool:
+    """A variable the wanted-pairs velocities keep (:data:`WHOLE_RUN_HOURLY`)."""
+    if not {"site", "receptor", "time"} <= set(dims):
+        return True
+    return (name in WHOLE_RUN_HOURLY or name.startswith(("vd_", "rb_"))
+            or (name.startswith("rc_") and name.count("_") == 1))
 
 
 @stage("wanted_pairs")
@@ -194,16 +211,22 @@ def wanted_pairs(o, sites, receptors, **parts):
     where = [{"site": np.array([s_pos[str(s)] for s in p["site"].values]),
               "receptor": np.array([r_pos[str(r)] for r in p["receptor"].values])}
              for p in parts]
+    covered = np.zeros((len(sites), len(receptors)), bool)     # the pairs computed
+    for w in where:
+        covered[w["site"][:, None], w["receptor"][None, :]] = True
     out = {}
     for name, v in first.data_vars.items():
         v = v.variable
+        if not _kept(name, v.dims):
+            continue
         if "site" not in v.dims:
             out[name] = v
             continue
         shape = tuple(sizes.get(d, v.shape[i]) for i, d in enumerate(v.dims))
-        a = np.full(shape, _fill(v.dtype), dtype=v.dtype)
+        a = np.empty(shape, dtype=v.dtype)          # every element written once below
         axes = [v.dims.index(d) for d in ("site", "receptor") if d in v.dims]
         view = np.moveaxis(a, axes, range(len(axes)))          # (site[, receptor], ...)
+        view[~(covered if len(axes) == 2 else covered.any(axis=1))] = _fill(v.dtype)
         for p, w in zip(parts, where):
             pv = p.variables[name]
             got = np.moveaxis(np.asarray(pv.transpose(*v.dims).values), axes,
