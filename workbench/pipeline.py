@@ -212,9 +212,12 @@ class Study:
     def _screened_node(self, wet_options) -> Node:
         if self.inputs.precipitation is None:
             return _NONE
+        precipitation = self._input("precipitation", self.inputs.precipitation)
         return self._run("screen", {"wet": wet_options},
-                         {"precipitation": self._input("precipitation", self.inputs.precipitation),
-                          "met": self._input("met", self.inputs.met)})
+                         {"precipitation": precipitation,
+                          "met": self._input("met", self.inputs.met),
+                          "flags": self._run("sample_flags",
+                                             deps={"precipitation": precipitation})})
 
     def screened(self, wet_options):
         """Per-sample QA (None without precipitation samples)."""

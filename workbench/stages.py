@@ -53,11 +53,20 @@ def periods(o, span, resolution, start, end):
     return _periods.make_periods(t0, t1, resolution, hydro_start_month=o.wet.hydro_start_month)
 
 
+@stage("sample_flags", freeze=True)
+def sample_flags(o, precipitation):
+    """The flag codes of each precipitation sample (no option changes them)."""
+    from .wet.screening import _flag_table, _values
+    codes, unknown = _flag_table(_values(precipitation, "flags", "", object))
+    return {"codes": codes, "unknown": unknown}
+
+
 @stage("screen", reads={"wet": WET_QA_OPTIONS}, counts_as="screened")
-def screen(o, precipitation, met):
+def screen(o, precipitation, met, flags=None):
     """Per-sample QA of the precipitation chemistry."""
     from .wet import screen as _screen
-    return _screen(precipitation, o.wet, met=met)
+    table = None if flags is None else (flags["codes"], flags["unknown"])
+    return _screen(precipitation, o.wet, met=met, flag_table=table)
 
 
 @stage("wet", reads={"wet": tuple(f.name for f in dataclasses.fields(WetOptions))},
