@@ -71,6 +71,13 @@ class Result:
     keys: dict = field(default_factory=dict)
     graph: Graph | None = field(default=None, repr=False, compare=False)
 
+    @property
+    def nbytes(self) -> int:
+        """Bytes of its Datasets (shared with a graph's entries; what a graph holding
+        the result counts, so that a bounded cache of results stays bounded)."""
+        return int(sum(ds.nbytes for ds in (self.budget, self.years, self.screened, self.wet,
+                                             self.velocities) if ds is not None))
+
     @functools.cached_property
     def table(self) -> pd.DataFrame:
         """budget.csv rows: the resolution periods, then the whole span."""
@@ -113,6 +120,12 @@ class Study:
         #: identity of the inputs in the graph's keys (the inputs are not changed)
         self.token = uuid.uuid4().hex
         self.counts = {"screened": 0, "wet": 0, "velocities": 0, "dry": 0, "budget": 0}
+
+    @property
+    def nbytes(self) -> int:
+        """Bytes of the study's input Datasets (what a graph holding the study counts)."""
+        return int(sum(ds.nbytes for ds in (self.inputs.precipitation, self.inputs.air,
+                                            self.inputs.met) if ds is not None))
 
     # ---------------------------------------------------------------- construction
     @classmethod

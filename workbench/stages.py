@@ -360,3 +360,8 @@ declare("dry_rows", {"budget": ROW_OPTIONS}, counts_as="dry",
 declare("dry_components", counts_as="dry",
         doc="dry deposition over the reporting periods (drycomponents.dry_components; "
             "each piece's share is the period_shares stage)")
+declare("site_study", doc="the study of one site and some years that an app computes on "
+                          "(ui.session.Session.study_for: the inputs cut, a study of its own)")
+declare("app_run", doc="an app's run of one site and some years with its settings "
+                       "(ui.session.Session.run: Study.run of the site's study, which runs "
+                       "the stages above; the settings enter its key whole)")
