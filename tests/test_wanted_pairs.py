@@ -15,7 +15,7 @@ import xarray as xr
 from ui.demo_subset import write_demo_subset
 from workbench.preflight import prepare
 from workbench.scenario import load_scenario
-from workbench.stages import WANTED_PAIRS_NOTE, pair_groups
+from workbench.stages import WANTED_PAIRS_NOTE, _site_attrs, pair_groups
 from workbench.writers import velocities_dataset, write_budget_csv, write_summary_csv
 
 SITES = ("ridge", "fell", "mere", "farm")
@@ -121,3 +121,17 @@ def test_a_receptor_a_site_does_not_want_is_computed_on_demand(setup):
     assert unwanted
     got = study.run(*args, receptors=[rec]).velocities
     assert np.isfinite(got["vd_SO2"].sel(site=unwanted, receptor=rec).values).any(axis=-1).all()
+
+
+def test_per_site_attributes_are_merged_as_one_call_gives_them():
+    """Lists and ``*_source`` texts per site in site order; the largest weight of a
+    mode over the sites (what one call over every site writes); others as they are."""
+    mode = "LogNormalMode(mmd=4e-07, gsd=2.0)"
+    a = {"units": "m s-1", "coarse_fraction": [0.1], "coarse_fraction_source": "x",
+         "modes": f"[({mode}, 0.8), ({mode}, 0.2)]"}
+    b = {"units": "m s-1", "coarse_fraction": [0.3, 0.2], "coarse_fraction_source": "y, z",
+         "modes": f"[({mode}, 0.7), ({mode}, 0.30000000000000004)]"}
+    got = _site_attrs([a, b], [["s2"], ["s1", "s3"]], ["s1", "s2", "s3"])
+    assert got == {"units": "m s-1", "coarse_fraction": [0.3, 0.1, 0.2],
+                   "coarse_fraction_source": "y, x, z",
+                   "modes": f"[({mode}, 0.8), ({mode}, 0.30000000000000004)]"}

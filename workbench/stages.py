@@ -209,8 +209,9 @@ def wanted_pairs(o, sites, receptors, **parts):
     on the (site, receptor, time) layout; the pairs no site asks for are not computed.
 
     They hold NaN (0 or false for counts and flags; ``active`` false), as
-    :data:`WANTED_PAIRS_NOTE` says in the ``pairs`` attribute.  `parts` are the velocities of the groups (:func:`pair_groups`), in any order;
-    `sites` and `receptors` the axes of the result.
+    :data:`WANTED_PAIRS_NOTE` says in the ``pairs`` attribute; only the variables of
+    :func:`_kept` are put on the layout.  `parts` are the velocities of the groups
+    (:func:`pair_groups`); `sites` and `receptors` the axes of the result.
     """
     parts = [parts[k] for k in sorted(parts)]
     first = parts[0]
