@@ -423,9 +423,10 @@ class Study:
             resolution="year", start=None, end=None, overrides=None, receptors=None) -> Result:
         """Compute the budget at a resolution, the yearly budget and the span mean.
 
-        `receptors` (a sequence of receptor surfaces) computes those only, with the
-        same numbers as in the whole run: an app showing one receptor at a time
-        computes what it shows (default: every receptor of the sites).
+        `receptors` (a sequence of receptor surfaces) computes those for every site,
+        with the same numbers as in the whole run: an app showing one receptor at a
+        time computes what it shows.  Default: the pairs the sites ask for, each site
+        on its own receptors (the others NaN; see :func:`workbench.stages.wanted_pairs`).
         """
         from .drydep import DryOptions
         from .wet import WetOptions
