@@ -22,10 +22,10 @@ from workbench.wet import WetOptions  # noqa: E402
 
 DOC = Path(__file__).resolve().parent / "engine.md"
 #: The order of the table: the order a budget runs them in.
-ORDER = ("periods", "screen", "wet", "surfaces", "micromet", "canopy_state", "gas_vd",
-         "particle_mode_vd", "velocities", "vd_content", "vd_fill", "vd_axes", "air_basis", "pair_air",
+ORDER = ("periods", "sample_flags", "screen", "wet", "surfaces", "micromet", "canopy_state", "gas_vd",
+         "particle_mode_vd", "site_subset", "velocities", "wanted_pairs", "vd_content", "hour_slots", "vd_fill", "vd_axes", "air_basis", "pair_air",
          "air_content", "flux_inputs", "species_rows", "nh3_emission_rows", "dry_rows",
-         "period_shares", "dry_components", "season_coverage", "budget", "derived")
+         "period_shares", "dry_components", "season_coverage", "budget", "derived", "site_study", "app_run")
 CLASSES = {"wet": WetOptions, "dry": DryOptions, "budget": BudgetOptions}
 
 

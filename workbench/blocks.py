@@ -19,8 +19,8 @@ the order in which blocks finish.
 Every site is computed on its own in the pipeline (screening, wet periods, velocities,
 dry fluxes and the budget are per site), so a block run gives the numbers of a whole
 run for every (site, receptor) pair a site asks for (tests/test_blocks.py).  Pairs no
-site asks for (``active`` false) hold no values in block mode (a whole run fills them
-with values of surfaces nobody reported); budget.csv and summary.csv carry the active
+site asks for (``active`` false) hold no values in block mode (nor in a whole run:
+``stages.wanted_pairs``); budget.csv and summary.csv carry the active
 pairs only and are the same.
 """
 from __future__ import annotations

@@ -23,7 +23,7 @@ from .dryflux import (_cumulative, _hour_bounds, _inputs_for, deposition_rows, f
 
 
 def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=7,
-                       template=None):
+                       template=None, slots=None):
     """Gap-filled hourly Vd per species, with the fill mask and its source.
 
     Parameters
@@ -37,6 +37,8 @@ def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=
     template : xarray.DataArray, optional
         (site, receptor, time) array giving the axes for fixed velocities when the
         model was not run.
+    slots : tuple, optional
+        :func:`workbench.dryflux.hour_slots` of the time axis (default: computed).
 
     Returns
     -------
@@ -56,7 +58,7 @@ def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=
             continue
         if vd_ds is None or f"vd_{sp}" not in vd_ds:
             continue
-        filled, was = fill_diurnal(vd_ds[f"vd_{sp}"].load(), min_slot_hours)
+        filled, was = fill_diurnal(vd_ds[f"vd_{sp}"].load(), min_slot_hours, slots)
         out[sp] = (filled, was, vd_ds.attrs.get("gas_scheme", "model"))
     return out
 
@@ -66,7 +68,7 @@ def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=
 NH3_EXCHANGE = {"NH3_bidirectional": "vd_NH3_bidirectional", "NH3_emission": "nh3_emission_flux"}
 
 
-def nh3_exchange_velocities(vd_ds, min_slot_hours=7):
+def nh3_exchange_velocities(vd_ds, min_slot_hours=7, slots=None):
     """Gap-filled hourly Vd and emission term of the bidirectional NH3 model.
 
     Parameters
@@ -76,6 +78,8 @@ def nh3_exchange_velocities(vd_ds, min_slot_hours=7):
         "bidirectional"`` (``vd_NH3_bidirectional`` [m s-1], ``nh3_emission_flux``
         [mol m-2 s-1]).
     min_slot_hours : int
+    slots : tuple, optional
+        :func:`workbench.dryflux.hour_slots` of the time axis (default: computed).
 
     Returns
     -------
@@ -88,7 +92,7 @@ def nh3_exchange_velocities(vd_ds, min_slot_hours=7):
         return {}
     out = {}
     for name, var in NH3_EXCHANGE.items():
-        filled, was = fill_diurnal(vd_ds[var].load(), min_slot_hours)
+        filled, was = fill_diurnal(vd_ds[var].load(), min_slot_hours, slots)
         out[name] = (filled, was, "nh3 compensation point")
     return out
 

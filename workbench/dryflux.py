@@ -25,7 +25,6 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .memo import trim
 from .units import molar_density_air
 
 HOUR_S = 3600.0
@@ -62,7 +61,7 @@ class DryFluxOptions:
     preferred_method: dict = field(default_factory=dict)
 
 
-def fill_diurnal(vd: xr.DataArray, min_slot_hours: int = MIN_SLOT_HOURS):
+def fill_diurnal(vd: xr.DataArray, min_slot_hours: int = MIN_SLOT_HOURS, slots=None):
     """Fill missing hourly Vd from the mean diurnal cycle of the same month.
 
     Parameters
@@ -72,6 +71,9 @@ def fill_diurnal(vd: xr.DataArray, min_slot_hours: int = MIN_SLOT_HOURS):
         other dimensions (site, receptor). [m s-1]
     min_slot_hours : int
         Fewest valid hours of a (year, month, hour) slot for it to be used.
+    slots : tuple, optional
+        :func:`hour_slots` of ``vd["time"]`` when the caller has them (default:
+        computed here, about 0.6 ms a year of hours).
 
     Returns
     -------
@@ -89,7 +91,8 @@ def fill_diurnal(vd: xr.DataArray, min_slot_hours: int = MIN_SLOT_HOURS):
     if valid.all():                                   # nothing to fill
         out, was = rows, np.zeros(rows.shape, bool)
     else:
-        slot_y, month_hour, n_years = _slots(v["time"].values)
+        slot_y, month_hour, n_years = (hour_slots(v["time"].values) if slots is None
+                                       else slots)
         n_rows, n_t = rows.shape
         base = np.arange(n_rows)[:, None]
 
@@ -119,24 +122,29 @@ def fill_diurnal(vd: xr.DataArray, min_slot_hours: int = MIN_SLOT_HOURS):
     return filled, was_filled
 
 
-_SLOTS: dict = {}
+def hour_slots(times):
+    """The (year, month, hour) slot and the (month, hour) slot of each hour.
 
+    Parameters
+    ----------
+    times : array of datetime64
+        End-of-hour labels [UTC].
 
-def _slots(times):
-    """(year, month, hour) slot and (month, hour) slot of each hour, and the number of
-    years, for end-of-hour labels (kept for the last few time axes: every species of a
-    study shares one)."""
+    Returns
+    -------
+    tuple
+        (year-month-hour slot [1], month-hour slot [1], number of years [1]); the
+        slots of an hour are those of its midpoint.  Every species of a study shares
+        one time axis: :class:`workbench.pipeline.Study` runs this once per met record
+        as the ``hour_slots`` stage of the graph and hands it to :func:`fill_diurnal`.
+    """
     t = np.asarray(times, dtype="datetime64[ns]")
-    key = (len(t), t[0].item() if len(t) else 0, t[-1].item() if len(t) else 0,
-           hash(t.tobytes()))
-    if key not in _SLOTS:
-        mid = pd.DatetimeIndex(t - _HALF_HOUR)
-        years = mid.year.to_numpy()
-        y0 = years.min()
-        month_hour = (mid.month.to_numpy() - 1) * 24 + mid.hour.to_numpy()
-        _SLOTS[key] = ((years - y0) * 288 + month_hour, month_hour, int(years.max() - y0 + 1))
-        trim(_SLOTS, 8)
-    return _SLOTS[key]
+    mid = pd.DatetimeIndex(t - _HALF_HOUR)
+    years = mid.year.to_numpy()
+    y0 = years.min() if len(years) else 0
+    month_hour = (mid.month.to_numpy() - 1) * 24 + mid.hour.to_numpy()
+    n_years = int(years.max() - y0 + 1) if len(years) else 0
+    return (years - y0) * 288 + month_hour, month_hour, n_years
 
 
 def _cumulative(x):

@@ -275,6 +275,8 @@ def _nbytes(value, seen=None) -> int:
             return 0
     if hasattr(value, "memory_usage") and hasattr(value, "columns"):    # DataFrame
         return int(value.memory_usage(deep=False).sum())
+    if isinstance(getattr(value, "nbytes", None), (int, np.integer)):   # e.g. a Study
+        return int(value.nbytes)
     if isinstance(value, dict):
         return sum(_nbytes(v, seen) for v in value.values())
     if isinstance(value, (tuple, list)):

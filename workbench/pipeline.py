@@ -71,6 +71,13 @@ class Result:
     keys: dict = field(default_factory=dict)
     graph: Graph | None = field(default=None, repr=False, compare=False)
 
+    @property
+    def nbytes(self) -> int:
+        """Bytes of its Datasets (shared with a graph's entries; what a graph holding
+        the result counts, so that a bounded cache of results stays bounded)."""
+        return int(sum(ds.nbytes for ds in (self.budget, self.years, self.screened, self.wet,
+                                             self.velocities) if ds is not None))
+
     @functools.cached_property
     def table(self) -> pd.DataFrame:
         """budget.csv rows: the resolution periods, then the whole span."""
@@ -113,6 +120,12 @@ class Study:
         #: identity of the inputs in the graph's keys (the inputs are not changed)
         self.token = uuid.uuid4().hex
         self.counts = {"screened": 0, "wet": 0, "velocities": 0, "dry": 0, "budget": 0}
+
+    @property
+    def nbytes(self) -> int:
+        """Bytes of the study's input Datasets (what a graph holding the study counts)."""
+        return int(sum(ds.nbytes for ds in (self.inputs.precipitation, self.inputs.air,
+                                            self.inputs.met) if ds is not None))
 
     # ---------------------------------------------------------------- construction
     @classmethod
@@ -212,9 +225,12 @@ class Study:
     def _screened_node(self, wet_options) -> Node:
         if self.inputs.precipitation is None:
             return _NONE
+        precipitation = self._input("precipitation", self.inputs.precipitation)
         return self._run("screen", {"wet": wet_options},
-                         {"precipitation": self._input("precipitation", self.inputs.precipitation),
-                          "met": self._input("met", self.inputs.met)})
+                         {"precipitation": precipitation,
+                          "met": self._input("met", self.inputs.met),
+                          "flags": self._run("sample_flags",
+                                             deps={"precipitation": precipitation})})
 
     def screened(self, wet_options):
         """Per-sample QA (None without precipitation samples)."""
@@ -240,10 +256,33 @@ class Study:
         return self._surfaces_node(overrides).value
 
     def _velocities_node(self, dry_options, overrides=None, receptors=None) -> Node:
+        """Velocities of every site on `receptors`, or (None) of the wanted pairs: each
+        group of sites asking for the same receptors (:func:`stages.pair_groups`) is
+        computed on its own receptors, and the groups are put on the (site, receptor,
+        time) layout with the other pairs not computed (:func:`stages.wanted_pairs`)."""
         if self.inputs.met is None:
             return _NONE
         met = self._input("met", self.inputs.met)
         surf = self._surfaces_node(overrides)
+        if receptors is not None:
+            return self._group_velocities(dry_options, overrides, met, surf, receptors)
+        sites = tuple(str(s) for s in met.value["site"].values)
+        groups = _stages.pair_groups(surf.value, sites)
+        every = tuple(str(r) for r in surf.value["receptor"].values)
+        if len(groups) == 1 and groups[0][1] == every:       # every site wants every pair
+            return self._group_velocities(dry_options, overrides, met, surf, None)
+        parts = {}
+        for i, (ids, recs) in enumerate(groups):
+            sub = met if ids == sites else self._run("site_subset", deps={"data": met},
+                                                     params={"sites": ids})
+            parts[f"group{i:06d}"] = self._group_velocities(dry_options, overrides, sub,
+                                                            surf, recs)
+        return self._run("wanted_pairs", deps=parts,
+                         params={"sites": sites, "receptors": every})
+
+    def _group_velocities(self, dry_options, overrides, met: Node, surf: Node,
+                          receptors) -> Node:
+        """The velocities stage on the sites of `met` and some receptors (None: all)."""
         steps = self.graph.steps(f"{met.key}+{surf.key}", self.counts)
         return self._run("velocities", {"dry": dry_options},
                          {"met": met, "surfaces": surf, "catalogue": self._catalogue_node(overrides),
@@ -252,7 +291,8 @@ class Study:
                          {"receptors": None if receptors is None else tuple(receptors)})
 
     def velocities(self, dry_options, overrides=None, receptors=None):
-        """Hourly Vd and resistances (all receptors, or the ones named)."""
+        """Hourly Vd and resistances: of the pairs the sites ask for (the others NaN,
+        ``active`` false), or of every site on the receptors named."""
         return self._velocities_node(dry_options, overrides, receptors).value
 
     def receptors(self, overrides=None) -> list:
@@ -284,6 +324,9 @@ class Study:
                   if self._needs_model(fixed_velocity) else _NONE)
         ids = tuple(self.catalogue(overrides).ids)
         opts = {"budget": budget_options}
+        met = self._input("met", self.inputs.met)
+        slots = (self._run("hour_slots", deps={"met": met})    # one time axis for all
+                 if met.value is not None else _NONE)
         every = tuple(receptors) if receptors is not None else tuple(self.receptors(overrides))
 
         def content(var):
@@ -296,17 +339,17 @@ class Study:
             if sp in fixed_velocity:
                 axes = self._input("axes", (ids, every, self.inputs.met["time"].values),
                                    overrides, every)
-                out[sp] = self._run("vd_fill", opts, {"vd": axes},
+                out[sp] = self._run("vd_fill", opts, {"vd": axes, "slots": slots},
                                     {"name": sp, "fixed": fixed_velocity[sp], "sites": ids})
             elif vd.value is not None and f"vd_{sp}" in vd.value:
-                out[sp] = self._run("vd_fill", opts, {"vd": content(f"vd_{sp}")},
+                out[sp] = self._run("vd_fill", opts, {"vd": content(f"vd_{sp}"), "slots": slots},
                                     {"name": sp, "fixed": None, "sites": ids})
         if (getattr(dry_options, "nh3_treatment", "") == "bidirectional" and vd.value is not None
                 and "vd_NH3_bidirectional" in vd.value and "NH3" in out
                 and "NH3" not in fixed_velocity):                   # the net NH3 flux
             for name, var in _stages.NH3_EXCHANGE.items():
                 if var in vd.value:
-                    out[name] = self._run("vd_fill", opts, {"vd": content(var)},
+                    out[name] = self._run("vd_fill", opts, {"vd": content(var), "slots": slots},
                                           {"name": name, "fixed": None, "sites": ids})
         return out
 
@@ -380,9 +423,10 @@ class Study:
             resolution="year", start=None, end=None, overrides=None, receptors=None) -> Result:
         """Compute the budget at a resolution, the yearly budget and the span mean.
 
-        `receptors` (a sequence of receptor surfaces) computes those only, with the
-        same numbers as in the whole run: an app showing one receptor at a time
-        computes what it shows (default: every receptor of the sites).
+        `receptors` (a sequence of receptor surfaces) computes those for every site,
+        with the same numbers as in the whole run: an app showing one receptor at a
+        time computes what it shows.  Default: the pairs the sites ask for, each site
+        on its own receptors (the others NaN; see :func:`workbench.stages.wanted_pairs`).
         """
         from .drydep import DryOptions
         from .wet import WetOptions

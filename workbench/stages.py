@@ -10,6 +10,7 @@ upstream results and inputs by name, and plain parameters.
 from __future__ import annotations
 
 import dataclasses
+import re
 
 import numpy as np
 import xarray as xr
@@ -17,7 +18,7 @@ import xarray as xr
 from . import periods as _periods
 from .budget import BudgetOptions, assemble, derived
 from .drycomponents import NH3_EXCHANGE, fill_arrays, prepare_velocities
-from .dryflux import fill_diurnal
+from .dryflux import fill_diurnal, hour_slots
 from .graph import declare, stage, variables_digest
 from .wet.options import WetOptions
 
@@ -53,11 +54,20 @@ def periods(o, span, resolution, start, end):
     return _periods.make_periods(t0, t1, resolution, hydro_start_month=o.wet.hydro_start_month)
 
 
+@stage("sample_flags", freeze=True)
+def sample_flags(o, precipitation):
+    """The flag codes of each precipitation sample (no option changes them)."""
+    from .wet.screening import _flag_table, _values
+    codes, unknown = _flag_table(_values(precipitation, "flags", "", object))
+    return {"codes": codes, "unknown": unknown}
+
+
 @stage("screen", reads={"wet": WET_QA_OPTIONS}, counts_as="screened")
-def screen(o, precipitation, met):
+def screen(o, precipitation, met, flags=None):
     """Per-sample QA of the precipitation chemistry."""
     from .wet import screen as _screen
-    return _screen(precipitation, o.wet, met=met)
+    table = None if flags is None else (flags["codes"], flags["unknown"])
+    return _screen(precipitation, o.wet, met=met, flag_table=table)
 
 
 @stage("wet", reads={"wet": tuple(f.name for f in dataclasses.fields(WetOptions))},
@@ -104,6 +114,149 @@ def velocities(o, met, surfaces, catalogue, steps, receptors, air=None):
     return vd
 
 
+def pair_groups(surfaces, sites) -> list:
+    """The sites that ask for the same receptor surfaces, and those surfaces.
+
+    Parameters
+    ----------
+    surfaces : xarray.Dataset
+        Receptor surfaces (site, receptor) with ``active`` (the site wants it).
+    sites : sequence of str
+        The sites computed (those of the met), in their order.
+
+    Returns
+    -------
+    list of (tuple of str, tuple of str)
+        (sites, receptors in the order of `surfaces`) per distinct set of wanted
+        receptors, in the order of each set's first site.
+    """
+    recs = [str(r) for r in surfaces["receptor"].values]
+    act = surfaces["active"].sel(site=list(sites)).transpose("site", "receptor").values
+    groups = {}
+    for s, row in zip(sites, act):
+        groups.setdefault(tuple(r for r, a in zip(recs, row) if a), []).append(str(s))
+    return [(tuple(g), r) for r, g in groups.items()]
+
+
+@stage("site_subset")
+def site_subset(o, data, sites):
+    """Some sites of a (site, ...) Dataset, in the order given (the met of a group)."""
+    return data.sel(site=list(sites))
+
+
+_MODE_WEIGHT = re.compile(r"\), ([-+0-9.eE]+|nan|inf)\)")
+
+
+def _site_attrs(attrs, part_sites, sites) -> dict:
+    """The attributes of a variable over the groups' sites, as one dense call gives them:
+    per-site lists (and the per-site texts of a ``*_source``, joined by ", ") in site
+    order, the largest weight of each mode of ``modes`` (the maximum over the sites),
+    equal values as they are."""
+    out = {}
+    where = {str(s): i for i, s in enumerate(sites)}
+    for key, first in attrs[0].items():
+        vals = [a.get(key) for a in attrs]
+        per_site = isinstance(first, list) or (isinstance(first, str) and key.endswith("_source"))
+        split = [v if isinstance(v, list) else str(v).split(", ") for v in vals]
+        if per_site and all(len(v) == len(ps) for v, ps in zip(split, part_sites)):
+            merged = [None] * len(sites)
+            for v, ps in zip(split, part_sites):
+                for x, s in zip(v, ps):
+                    merged[where[str(s)]] = x
+            out[key] = merged if isinstance(first, list) else ", ".join(merged)
+        elif all(v == first for v in vals[1:]):
+            out[key] = first
+        elif key == "modes":
+            weights = np.array([[float(w) for w in _MODE_WEIGHT.findall(v)] for v in vals])
+            top = iter(repr(float(w)) for w in weights.max(axis=0))
+            out[key] = _MODE_WEIGHT.sub(lambda m: f"), {next(top)})", first)
+        else:
+            out[key] = first
+    return out
+
+
+def _fill(dtype):
+    """The value of a pair that is not computed: NaN, False, 0 or NaT by dtype."""
+    kind = np.dtype(dtype).kind
+    return {"f": np.nan, "c": np.nan, "b": False, "i": 0, "u": 0,
+            "M": np.datetime64("NaT"), "m": np.timedelta64("NaT")}.get(kind, "")
+
+
+#: The note of a velocities Dataset that holds the wanted pairs only.
+WANTED_PAIRS_NOTE = ("only the (site, receptor) pairs a site asks for (active) are computed; "
+                     "the others are NaN (0 or false for counts and flags); the hourly paths "
+                     "of Rc and the diagnostics of the steps are left out (Study.velocities "
+                     "with receptors= gives every variable)")
+#: Hourly (site, receptor, time) variables of a whole run's velocities: what the budget
+#: reads (``vd_*``, the NH3 exchange) and what velocities.nc writes (Ra, Rb, Rc and Vd,
+#: u*, L, z0, wetness and the flags counted).  The Rc paths and the steps' diagnostics,
+#: half of the bytes, stay in the graph's group results.
+WHOLE_RUN_HOURLY = ("friction_velocity", "obukhov_length", "ra", "roughness_length",
+                    "surface_wet", "ustar_floor_used", "ra_cap_used", "ra_height_raised",
+                    *NH3_EXCHANGE.values())
+
+
+def _kept(name, dims) -> bool:
+    """A variable the wanted-pairs velocities keep (:data:`WHOLE_RUN_HOURLY`)."""
+    if not {"site", "receptor", "time"} <= set(dims):
+        return True
+    return (name in WHOLE_RUN_HOURLY or name.startswith(("vd_", "rb_"))
+            or (name.startswith("rc_") and name.count("_") == 1))
+
+
+@stage("wanted_pairs")
+def wanted_pairs(o, sites, receptors, **parts):
+    """The velocities of the groups of sites, each computed on its own receptors, put
+    on the (site, receptor, time) layout; the pairs no site asks for are not computed.
+
+    They hold NaN (0 or false for counts and flags; ``active`` false), as
+    :data:`WANTED_PAIRS_NOTE` says in the ``pairs`` attribute; only the variables of
+    :func:`_kept` are put on the layout.  `parts` are the velocities of the groups
+    (:func:`pair_groups`); `sites` and `receptors` the axes of the result.
+    """
+    parts = [parts[k] for k in sorted(parts)]
+    first = parts[0]
+    s_pos = {s: i for i, s in enumerate(sites)}
+    r_pos = {r: i for i, r in enumerate(receptors)}
+    sizes = {"site": len(sites), "receptor": len(receptors)}
+    where = [{"site": np.array([s_pos[str(s)] for s in p["site"].values]),
+              "receptor": np.array([r_pos[str(r)] for r in p["receptor"].values])}
+             for p in parts]
+    covered = np.zeros((len(sites), len(receptors)), bool)     # the pairs computed
+    for w in where:
+        covered[w["site"][:, None], w["receptor"][None, :]] = True
+    out = {}
+    for name, v in first.data_vars.items():
+        v = v.variable
+        if not _kept(name, v.dims):
+            continue
+        if "site" not in v.dims:
+            out[name] = v
+            continue
+        shape = tuple(sizes.get(d, v.shape[i]) for i, d in enumerate(v.dims))
+        a = np.empty(shape, dtype=v.dtype)          # every element written once below
+        axes = [v.dims.index(d) for d in ("site", "receptor") if d in v.dims]
+        view = np.moveaxis(a, axes, range(len(axes)))          # (site[, receptor], ...)
+        view[~(covered if len(axes) == 2 else covered.any(axis=1))] = _fill(v.dtype)
+        for p, w in zip(parts, where):
+            pv = p.variables[name]
+            got = np.moveaxis(np.asarray(pv.transpose(*v.dims).values), axes,
+                              range(len(axes)))
+            if len(axes) == 2:
+                view[w["site"][:, None], w["receptor"][None, :]] = got
+            else:
+                view[w["site"]] = got
+        a.flags.writeable = False                 # shared with the cache, as Vd's are
+        out[name] = xr.Variable(v.dims, a, _site_attrs([p.variables[name].attrs for p in parts],
+                                                       [p["site"].values for p in parts], sites))
+    coords = {"site": list(sites), "receptor": list(receptors)}
+    coords.update({k: c.variable for k, c in first.coords.items()
+                   if not {"site", "receptor"} & set(c.dims)})
+    ds = xr.Dataset(out, coords=coords, attrs=dict(first.attrs))
+    ds.attrs["pairs"] = WANTED_PAIRS_NOTE
+    return ds
+
+
 def met_with_air(met, air, surfaces, dry_options):
     """The met Dataset with the hourly inputs the dry options take from the air
     concentrations (site, time) [1]: the NH3/SO2 ratio of ``so2_codeposition``, the acid
@@ -142,12 +295,19 @@ def vd_content(o, velocities, variable):
                             velocities.attrs.get("gas_scheme", "model"))
 
 
+@stage("hour_slots")
+def met_hour_slots(o, met):
+    """The (year, month, hour) and (month, hour) slots of the met's hours, shared by the
+    gap fills of every species (:func:`workbench.dryflux.hour_slots`)."""
+    return hour_slots(met["time"].values)
+
+
 @stage("vd_fill", reads={"budget": ("min_slot_hours",)}, counts_as="dry")
-def vd_fill(o, vd, name, fixed, sites):
+def vd_fill(o, vd, name, fixed, sites, slots=None):
     """Gap-filled hourly Vd of a species (its mean diurnal cycle), or a fixed Vd.
 
     `vd` is ``(DataArray, scheme)`` of the model or, for a fixed Vd, the
-    ``(ids, receptors, times)`` axes.
+    ``(ids, receptors, times)`` axes; `slots` the ``hour_slots`` of its time axis.
     """
     min_slot = o.budget.min_slot_hours
     if fixed is not None:
@@ -156,13 +316,13 @@ def vd_fill(o, vd, name, fixed, sites):
                                 dims=("site", "receptor", "time"),
                                 coords={"site": list(ids), "receptor": list(receptors),
                                         "time": times})
-        got = prepare_velocities(None, [name], {name: fixed}, min_slot, template)[name]
+        got = prepare_velocities(None, [name], {name: fixed}, min_slot, template, slots)[name]
     elif name in NH3_EXCHANGE:
-        filled, was = fill_diurnal(vd[0].load(), min_slot)
+        filled, was = fill_diurnal(vd[0].load(), min_slot, slots)
         got = (filled, was, "nh3 compensation point")
     else:
         ds = xr.Dataset({f"vd_{name}": vd[0]}, attrs={"gas_scheme": vd[1]})
-        got = prepare_velocities(ds, [name], {}, min_slot)[name]
+        got = prepare_velocities(ds, [name], {}, min_slot, slots=slots)[name]
     return fill_arrays(*got, sites)
 
 
@@ -203,3 +363,8 @@ declare("dry_rows", {"budget": ROW_OPTIONS}, counts_as="dry",
 declare("dry_components", counts_as="dry",
         doc="dry deposition over the reporting periods (drycomponents.dry_components; "
             "each piece's share is the period_shares stage)")
+declare("site_study", doc="the study of one site and some years that an app computes on "
+                          "(ui.session.Session.study_for: the inputs cut, a study of its own)")
+declare("app_run", doc="an app's run of one site and some years with its settings "
+                       "(ui.session.Session.run: Study.run of the site's study, which runs "
+                       "the stages above; the settings enter its key whole)")

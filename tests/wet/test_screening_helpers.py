@@ -21,7 +21,7 @@ def test_site_statistic_equals_pandas_groupby_transform(how):
     np.testing.assert_allclose(_site_stat(values, sites, how), ref, rtol=1e-14)  # summation order
 
 
-def test_flag_table_is_cached_but_returns_fresh_arrays():
+def test_flag_table_returns_fresh_arrays():
     text = np.array(["", "X1, zz", None, np.nan], dtype=object)
     first, unknown = _flag_table(text)
     assert unknown.tolist() == [False, True, False, False]

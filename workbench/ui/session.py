@@ -12,7 +12,6 @@ import dataclasses
 import datetime as _dt
 import os
 import warnings
-from collections import OrderedDict
 from pathlib import Path
 
 import numpy as np
@@ -20,17 +19,13 @@ import pandas as pd
 
 from ..budget import BudgetOptions
 from ..drydep import DryOptions
-from ..graph import Graph, content_digest, token
+from ..graph import Graph, input_node
 from ..pipeline import Study
 from ..scenario import load_scenario, validate
 from ..wet import WetOptions
 from .assumptions import ASSUMPTIONS, Settings
 from .summaries import mean_totals
 
-#: Subset studies kept in memory (each holds its cached stages).
-MAX_STUDIES = 4
-#: Results kept in memory (small: they share the studies' cached arrays).
-MAX_RESULTS = 32
 #: Days of data kept on each side of the years of a subset study.  Without them an air
 #: sample that straddles New Year would be counted whole in the year (the dry flux
 #: shares a straddling sample by the hours of met it sees), some % too much dry
@@ -73,8 +68,6 @@ class Session:
         self.study = study
         self.scenario = scenario
         self.baseline = Settings.from_scenario(scenario)
-        self._studies: OrderedDict = OrderedDict()
-        self._results: OrderedDict = OrderedDict()
         #: the one stage graph (and bounded cache) of every study of the session
         self.graph = Graph()
 
@@ -137,24 +130,22 @@ class Session:
 
     # ------------------------------------------------------------------ computing
     def study_for(self, site, first_year, last_year) -> Study:
-        """The study of one site and some years (cached; at most :data:`MAX_STUDIES`).
+        """The study of one site and some years (the ``site_study`` stage of the
+        session's graph: kept while the graph's bounded cache keeps it).
 
         The inputs are cut to the site and the years with :data:`SUBSET_MARGIN_DAYS` on
         each side; a run then reports the years only.
         """
-        key = (site, int(first_year), int(last_year))
-        if key in self._studies:
-            self._studies.move_to_end(key)
-            return self._studies[key]
-        start, end = self.bounds(first_year, last_year)
-        margin = np.timedelta64(SUBSET_MARGIN_DAYS, "D")
-        st = Study(self.study.inputs.subset([site], np.datetime64(start) - margin,
-                                            np.datetime64(end) + margin),
-                   self.study.site_overrides, graph=self.graph)
-        self._studies[key] = st
-        while len(self._studies) > MAX_STUDIES:
-            self._studies.popitem(last=False)
-        return st
+        def cut(o, whole, site, first_year, last_year):
+            start, end = self.bounds(first_year, last_year)
+            margin = np.timedelta64(SUBSET_MARGIN_DAYS, "D")
+            return Study(whole.inputs.subset([site], np.datetime64(start) - margin,
+                                             np.datetime64(end) + margin),
+                         whole.site_overrides, graph=self.graph)
+        return self.graph.run("site_study",
+                              deps={"whole": input_node("study", self.study.token, self.study)},
+                              params={"site": str(site), "first_year": int(first_year),
+                                      "last_year": int(last_year)}, fn=cut).value
 
     def run(self, settings: Settings, site, first_year, last_year, resolution="month",
             receptor=None):
@@ -164,26 +155,25 @@ class Session:
         the numbers of the whole run: what an app shows, at a third of the cost for a
         site with three receptors.  Default: every receptor.
 
-        The last :data:`MAX_RESULTS` results are kept: going back to settings seen
-        before returns the same ``Result`` object without running the study.
+        The run is the ``app_run`` stage of the session's graph: going back to settings
+        seen before returns the same ``Result`` object without running the study (its
+        key is derived from the settings, the site's study and the arguments).
         """
-        key = content_digest([], repr(token(
-            (site, int(first_year), int(last_year), resolution, receptor, settings))))
-        if key in self._results:
-            self._results.move_to_end(key)
-            return self._results[key]
-        start, end = self.bounds(first_year, last_year)
-        with warnings.catch_warnings():
-            # a site without some component gives all-NaN slices in the budget's
-            # completeness; the status columns already say "missing"
-            warnings.filterwarnings("ignore", "All-NaN slice encountered", RuntimeWarning)
-            res = self.study_for(site, first_year, last_year).run(
-                resolution=resolution, start=start, end=end,
-                receptors=None if receptor is None else [receptor], **settings.run_args())
-        self._results[key] = res
-        while len(self._results) > MAX_RESULTS:
-            self._results.popitem(last=False)
-        return res
+        study = self.study_for(site, first_year, last_year)
+
+        def compute(o, study, first_year, last_year, resolution, receptor, settings):
+            start, end = self.bounds(first_year, last_year)
+            with warnings.catch_warnings():
+                # a site without some component gives all-NaN slices in the budget's
+                # completeness; the status columns already say "missing"
+                warnings.filterwarnings("ignore", "All-NaN slice encountered", RuntimeWarning)
+                return study.run(resolution=resolution, start=start, end=end,
+                                 receptors=None if receptor is None else [receptor],
+                                 **settings.run_args())
+        return self.graph.run("app_run", deps={"study": input_node("study", study.token, study)},
+                              params={"first_year": int(first_year), "last_year": int(last_year),
+                                      "resolution": resolution, "receptor": receptor,
+                                      "settings": settings}, fn=compute).value
 
     def run_schemes(self, settings: Settings, site, first_year, last_year, receptor,
                     chosen=None) -> dict:

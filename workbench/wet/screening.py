@@ -7,7 +7,6 @@ over the handful of ions, flag codes and reasons.
 """
 from __future__ import annotations
 
-import functools
 
 import json
 
@@ -36,16 +35,13 @@ def _values(ds, name, default=np.nan, dtype=float):
 
 
 def _flag_table(flags_text: np.ndarray):
-    """Per-code membership of the flags column: dict code -> bool array, and unknown."""
-    key = tuple("" if (v is None or (isinstance(v, float) and np.isnan(v))) else str(v)
-                for v in flags_text)
-    table, unknown = _flag_table_of(key)
-    return {k: v.copy() for k, v in table.items()}, unknown.copy()
+    """Per-code membership of the flags column: dict code -> bool array, and unknown.
 
-
-@functools.lru_cache(maxsize=16)
-def _flag_table_of(flags_text: tuple):
-    """:func:`_flag_table` of a tuple of texts (cached: the options do not change it)."""
+    No option changes it: :class:`workbench.pipeline.Study` runs it once per sample
+    file as the ``sample_flags`` stage of its graph and hands it to :func:`screen`.
+    """
+    flags_text = tuple("" if (v is None or (isinstance(v, float) and np.isnan(v))) else str(v)
+                       for v in flags_text)
     n = len(flags_text)
     text = pd.Series(flags_text, dtype=object).astype(str)
     text = text.where(~text.isin(["nan", "None"]), "")
@@ -105,7 +101,7 @@ def _blank_values(ds, blanks, ion):
 
 
 def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Dataset | None = None,
-           blanks: xr.Dataset | None = None) -> xr.Dataset:
+           blanks: xr.Dataset | None = None, flag_table=None) -> xr.Dataset:
     """Screen precipitation samples and decide, per sample, what is used.
 
     Parameters
@@ -123,6 +119,9 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
     blanks : xarray.Dataset, optional
         Field blanks, dim ``blank``: ``site``, ``start``, ``end`` (the batch they
         stand for) and ions [mol m-3].
+    flag_table : tuple, optional
+        :func:`_flag_table` of ``samples["flags"]`` when the caller has it (not
+        changed here).
 
     Returns
     -------
@@ -157,7 +156,8 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
     added = {}    # variables to add, assigned once at the end (one merge, not dozens)
 
     # --- flags --------------------------------------------------------------------------
-    codes, unknown = _flag_table(_values(ds, "flags", "", object))
+    codes, unknown = (_flag_table(_values(ds, "flags", "", object)) if flag_table is None
+                      else flag_table)
     chem_flag_bad = np.zeros(n, bool)
     gauge_flag_bad = np.zeros(n, bool)
     for code, (meaning, chem_ok, gauge_ok) in _flags.FLAGS.items():
