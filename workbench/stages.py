@@ -192,7 +192,7 @@ WANTED_PAIRS_NOTE = ("only the (site, receptor) pairs a site asks for (active) a
 #: u*, L, z0, wetness and the flags counted).  The Rc paths and the steps' diagnostics,
 #: half of the bytes, stay in the graph's group results.
 WHOLE_RUN_HOURLY = ("friction_velocity", "obukhov_length", "ra", "roughness_length",
-                    "surface_wet", "ustar_floor_used", "ra_cap_used", "ra_height_raised",
+                    "displacement_height", "seasonal_category", "surface_wet", "ustar_floor_used", "ra_cap_used", "ra_height_raised",
                     *NH3_EXCHANGE.values())
 
 
