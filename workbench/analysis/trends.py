@@ -4,8 +4,10 @@ serial dependence among the seasons.
 
 The statistics are vectorized over the pairs of values (broadcast differences).  The
 table of a run (:func:`trend_table`) indexes all series at once (one groupby for the
-series, one for the monthly grids) and loops over the series with numpy only: a network
-has thousands of series, and a pandas call per series used to dominate a run.
+series, one for the monthly grids) and computes every series' statistics in one batch
+(:mod:`.trends_batch`, the same numbers as the functions here, which stay the
+reference): a network has thousands of series, and a call per series used to dominate
+the writing of a run.
 """
 from __future__ import annotations
 
@@ -318,7 +320,9 @@ def _table_rows(keys, series, stats_by_variant, min_years, excluded, dl) -> dict
     """Columns of trends.csv for every series and variant (series-major, variants in the
     order of :data:`VARIANTS`), as :func:`_row` makes them one at a time."""
     n_keys, variants = len(keys), list(VARIANTS)
-    order = lambda a: np.stack([np.asarray(a[v]) for v in variants], axis=1).reshape(-1)  # noqa: E731
+
+    def order(a):                     # series-major: series 0 all, series 0 without, ...
+        return np.stack([np.asarray(a[v]) for v in variants], axis=1).reshape(-1)
     st = {f: order({v: stats_by_variant[v][f] for v in variants})
           for f in stats_by_variant[variants[0]]}
     key_cols = list(zip(*keys)) if keys else [()] * len(KEYS)
