@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import dataclasses
 import json
+import sys
 
 import numpy as np
 import pytest
@@ -399,3 +400,69 @@ def test_fixed_velocity_on_the_grid(grid):
     assert has.sum() == 2 * 5 and np.allclose(vd[has], 0.005)          # 5 cells, 2 months
     np.testing.assert_array_equal(a[names.index("dry_NH3")], b[names.index("dry_NH3")])
     assert not np.allclose(a[names.index("dry_SO2")][has], b[names.index("dry_SO2")][has])
+
+
+# ------------------------------------------------------------------ grid on a dask cluster
+def _grid_scenario(tmp_path, site):
+    _write(tmp_path / "in", site)
+    path = tmp_path / "in" / "scenario.toml"
+    path.write_text('[grid]\nmet = "met.nc"\nair = "air.nc"\nland_use = "land_use.nc"\n'
+                    '[period]\nresolution = "month"\n')
+    return path
+
+
+def _maps(folder):
+    with xr.open_dataset(folder / "grid.nc", decode_times=False) as ds:
+        ds = ds.load()
+    history = ds.attrs.pop("history")
+    return ds, history
+
+
+def test_grid_on_two_workers_equals_in_process(site, tmp_path):
+    """`workbench grid --workers 2` (a local cluster of 2 processes, started by the same
+    function as `workbench run --workers`): the same maps, bit for bit, as the blocks
+    run in process (same blocks, same sums)."""
+    pytest.importorskip("distributed")
+    from workbench.cli import main
+    sc = _grid_scenario(tmp_path, site)
+    assert main(["grid", str(sc), "--out", str(tmp_path / "a"), "--quiet", "--block", "1",
+                 "--in-process"]) == 0
+    assert main(["grid", str(sc), "--out", str(tmp_path / "b"), "--quiet", "--block", "1",
+                 "--workers", "2"]) == 0
+    (a, ha), (b, hb) = _maps(tmp_path / "a"), _maps(tmp_path / "b")
+    assert any(np.isfinite(b[n].values).any() for n in b.data_vars if n.startswith("vd_"))
+    xr.testing.assert_identical(a, b)
+    assert "local dask cluster of 2 workers" in hb and "dask" not in ha
+
+
+def test_grid_on_a_running_scheduler(site, tmp_path):
+    """`--scheduler ADDRESS`: the blocks run on an existing cluster (here a threaded one
+    in this process); same maps as in process."""
+    distributed = pytest.importorskip("distributed")
+    from workbench.cli import main
+    sc = _grid_scenario(tmp_path, site)
+    assert main(["grid", str(sc), "--out", str(tmp_path / "a"), "--quiet", "--block", "2",
+                 "--in-process"]) == 0
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=False,
+                                  dashboard_address=None) as cluster:
+        assert main(["grid", str(sc), "--out", str(tmp_path / "b"), "--quiet", "--block",
+                     "2", "--scheduler", cluster.scheduler_address]) == 0
+        assert cluster.status.name == "running"        # not closed by the command
+    (a, _), (b, hb) = _maps(tmp_path / "a"), _maps(tmp_path / "b")
+    xr.testing.assert_identical(a, b)
+    assert f"scheduler at {cluster.scheduler_address}" in hb
+
+
+def test_grid_workers_without_distributed_names_the_extra(site, tmp_path, monkeypatch,
+                                                          capsys):
+    from workbench.cli import build_parser, main
+    monkeypatch.setitem(sys.modules, "distributed", None)       # import fails
+    sc = _grid_scenario(tmp_path, site)
+    assert main(["grid", str(sc), "--out", str(tmp_path / "c"), "--quiet",
+                 "--workers", "2"]) == 2
+    err = capsys.readouterr().err
+    assert "distributed is not installed" in err and "deposition-workbench[scale]" in err
+    assert not (tmp_path / "c").exists() or not any((tmp_path / "c").iterdir())
+    with pytest.raises(SystemExit):                   # in process and on workers: one only
+        build_parser().parse_args(["grid", str(sc), "--out", "o", "--in-process",
+                                   "--workers", "2"])

@@ -162,7 +162,8 @@ def cmd_sensitivity(args) -> int:
 def cmd_grid(args) -> int:
     from .grid_output import run_grid
     written = run_grid(args.scenario, args.out, args.overwrite, args.quiet, block=args.block,
-                       use_dask=False if args.in_process else None)
+                       use_dask=False if args.in_process else None, workers=args.workers,
+                       scheduler=args.scheduler)
     print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
     for name in written:
         print(f"  {name}")
@@ -225,8 +226,13 @@ def build_parser() -> argparse.ArgumentParser:
     gr.add_argument("--quiet", action="store_true", help="no progress messages")
     gr.add_argument("--block", type=_positive, default=32, metavar="N",
                     help="cells per side of a block (one dask task each; default 32)")
-    gr.add_argument("--in-process", action="store_true", help="run the blocks one after "
-                    "the other without dask (the default when dask is not installed)")
+    where = gr.add_mutually_exclusive_group()
+    where.add_argument("--in-process", action="store_true", help="run the blocks one after "
+                       "the other without dask (the default when dask is not installed)")
+    where.add_argument("--workers", type=_positive, default=None, help="run the blocks on "
+                       "a local dask cluster of N single-threaded worker processes")
+    where.add_argument("--scheduler", default=None, metavar="ADDRESS", help="run the blocks "
+                       "on the dask scheduler at ADDRESS (e.g. tcp://host:8786)")
     gr.set_defaults(func=cmd_grid)
     d = sub.add_parser("demo", help="run the bundled demo scenario into a fresh folder")
     d.add_argument("--out", type=Path, default=None, help="output folder (default: a new "

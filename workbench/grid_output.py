@@ -9,6 +9,7 @@ not at all (:class:`workbench.runfolder.RunFolder`), ``provenance.json`` last.
 """
 from __future__ import annotations
 
+import contextlib
 import datetime as _dt
 import json
 import sys
@@ -138,14 +139,39 @@ def grid_paths(sc) -> dict:
     return out
 
 
+@contextlib.contextmanager
+def _cluster(workers=None, scheduler=None):
+    """A dask client for the blocks (:func:`workbench.blocks.start_client`), closed with
+    the cluster it started at the end; None without `workers` and `scheduler`."""
+    if not (workers or scheduler):
+        yield None
+        return
+    from .blocks import start_client
+    client = start_client(workers, scheduler)
+    try:
+        yield client
+    finally:
+        cluster = client.cluster if not scheduler else None
+        client.close()
+        if cluster is not None:
+            cluster.close()
+
+
 def run_grid(scenario_path, out, overwrite=False, quiet=False, block=DEFAULT_BLOCK,
-             use_dask=None) -> dict:
+             use_dask=None, workers=None, scheduler=None) -> dict:
     """Compute a scenario's ``[grid]`` and write the run folder (grid.nc, provenance.json).
 
     Parameters
     ----------
     use_dask : bool, optional
         Blocks as dask tasks (default: when dask is installed).
+    workers : int, optional
+        Run the block tasks on a local dask cluster of this many single-threaded worker
+        processes (started and closed here, as ``workbench run --workers``).
+    scheduler : str, optional
+        Run them on the dask scheduler at this address (``tcp://host:8786``).  With
+        `workers` or `scheduler`, dask and distributed are needed (the ``scale`` extra)
+        and the maps are gathered into this process before grid.nc is written.
 
     Returns
     -------
@@ -161,11 +187,14 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=DEFAULT_BLO
         raise ScenarioError("no [grid] section", file=sc.path, column="grid",
                             expected="a [grid] section with met, air and land_use paths")
     say = (lambda text: None) if quiet else (lambda text: print(text, file=sys.stderr))
-    if use_dask is None:
+    if workers or scheduler:
+        use_dask = True
+    elif use_dask is None:
         import importlib.util
         use_dask = importlib.util.find_spec("dask") is not None
     started = _dt.datetime.now(_dt.timezone.utc)
-    with RunFolder(out, {"scenario": sc.path, **paths}, overwrite, say=say) as folder:
+    with RunFolder(out, {"scenario": sc.path, **paths}, overwrite, say=say) as folder, \
+            _cluster(workers, scheduler) as client:
         grid = open_grid(paths["met"], paths["air"], paths["land_use"])
         say(describe(grid))
         for note in grid.notes:
@@ -175,10 +204,15 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=DEFAULT_BLO
         o = sc.options
         names, arr = compute_grid(grid, o["dry"], o["budget"], periods, sc.fixed_velocity,
                                   block=block, use_dask=use_dask, progress=say)
+        where = ""
+        if client is not None:             # the tasks run on the cluster; maps come back
+            arr = client.compute(arr).result()
+            where = (f" on the dask scheduler at {scheduler}" if scheduler
+                     else f" on a local dask cluster of {workers} workers")
         prov = provenance(sc, {"scenario": sc.path, **paths}, started)
         history = (f"{started:%Y-%m-%dT%H:%M:%SZ} workbench grid {sc.path} (deposition "
                    f"workbench {__version__}; blocks of {block} cells"
-                   f"{' as dask tasks' if use_dask else ''}); inputs: "
+                   f"{' as dask tasks' if use_dask else ''}{where}); inputs: "
                    + "; ".join(f"{r} {v['path']} sha256 {v['sha256']}"
                                for r, v in prov["inputs"].items()))
         ds = grid_dataset(names, arr, grid, periods, history)

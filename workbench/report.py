@@ -103,7 +103,7 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES) -> tuple:
     from .analysis.trends import MIN_YEARS, trend_table
     from .tables import budget_table
     from .ui.figures_analysis import trend_figure
-    t = budget_table(result.years)
+    t = budget_table(result.years, lean=True)
     cat = study.catalogue()
     own = {s.id: s.land_use for s in cat}
     tot = t[(t["pathway"] == "total") & (t["species"] == "all")

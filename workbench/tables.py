@@ -18,7 +18,7 @@ BUDGET_COLUMNS = ("site", "receptor", "period_start", "period_end", "element", "
 
 
 def _rows(ds: xr.Dataset, dep_var, status_var, compl_var, comp_dim, element, pathway, species,
-          missing_var=None, flagged_var=None):
+          missing_var=None, flagged_var=None, lean=False):
     d = ds[dep_var].transpose("site", "receptor", "period", comp_dim)
     n_s, n_r, n_p, n_c = d.shape
     idx = np.indices((n_s, n_r, n_p, n_c)).reshape(4, -1)
@@ -26,6 +26,19 @@ def _rows(ds: xr.Dataset, dep_var, status_var, compl_var, comp_dim, element, pat
     values = d.values.reshape(-1)
     kg = np.where(el == "S", element_deposition_in(values, "S", "kg_ha"),
                   element_deposition_in(values, "N", "kg_ha"))
+    active = ds["active"].values[idx[0], idx[1]]
+    if lean:                     # the columns of a trend, only the rows of active pairs
+        sel = np.flatnonzero(active)
+        fac = ds["annual_factor"].values[idx[2][sel]]
+        return pd.DataFrame({
+            "site": ds["site"].values[idx[0][sel]],
+            "receptor": ds["receptor"].values[idx[1][sel]],
+            "period_start": pd.to_datetime(ds["period_start"].values[idx[2][sel]]),
+            "element": el[sel], "pathway": np.asarray(pathway)[idx[3][sel]],
+            "species": np.asarray(species)[idx[3][sel]], "flux_kg_ha_yr": kg[sel] * fac,
+            "status": ds[status_var].transpose("site", "receptor", "period",
+                                               comp_dim).values.reshape(-1)[sel],
+            "period": ds["period"].values[idx[2][sel]]})
     eq = np.where(el == "S", element_deposition_in(values, "S", "eq_ha"),
                   element_deposition_in(values, "N", "eq_ha"))
     mmol = element_deposition_in(values, "N", "mmol_m2")
@@ -58,34 +71,46 @@ def _rows(ds: xr.Dataset, dep_var, status_var, compl_var, comp_dim, element, pat
     if "fails_completeness" in ds and comp_dim == "component":
         frame["passes"] = (~flat("fails_completeness").astype(bool)
                            & (frame["status"] != "missing"))
-    active = ds["active"].values[idx[0], idx[1]]
     return frame[active]
 
 
-def budget_table(ds: xr.Dataset) -> pd.DataFrame:
+def budget_table(ds: xr.Dataset, lean: bool = False) -> pd.DataFrame:
     """One row per site, receptor, period and component, then the sums.
 
     Columns start with :data:`BUDGET_COLUMNS`; ``species`` is ``all`` on the rows that
-    sum a pathway (``wet``, ``dry``) or the ``total``.
+    sum a pathway (``wet``, ``dry``) or the ``total``.  With `lean`, only the columns
+    a trend reads (site, receptor, period_start, element, pathway, species,
+    flux_kg_ha_yr [kg ha-1 yr-1], status, period), the same rows in the same order:
+    for the monthly trends of a large network, without the wide table.
     """
     comps = _rows(ds, "deposition", "status", "completeness", "component",
-                  ds["element"].values, ds["pathway"].values, ds["species"].values)
+                  ds["element"].values, ds["pathway"].values, ds["species"].values,
+                  lean=lean)
     tot_names = ds["total"].values
     totals = _rows(ds, "total_deposition", "total_status", "total_completeness", "total",
                    [t.split("_")[0] for t in tot_names], [t.split("_")[1] for t in tot_names],
                    ["all"] * len(tot_names), "total_missing_components",
-                   "total_flagged_components")
+                   "total_flagged_components", lean=lean)
     frame = pd.concat([comps, totals], ignore_index=True)
+    del comps, totals
+    if lean:
+        return _sorted(frame)
     basis = "nss"
     if "options" in ds.attrs:
         basis = json.loads(ds.attrs["options"]).get("sulfate_basis", "nss")
     frame = _wet_columns(ds, frame, basis)
     frame = _nh3_columns(ds, frame)
+    return _sorted(frame)
+
+
+def _sorted(frame: pd.DataFrame) -> pd.DataFrame:
+    """Rows by site, receptor, period start, element, then wet, dry, total (components
+    before their sum)."""
     order = {"wet": 0, "dry": 1, "total": 2}
-    frame["_o"] = frame["pathway"].map(order) + (frame["species"] == "all") * 0.5
-    frame = frame.sort_values(["site", "receptor", "period_start", "element", "_o"],
-                              kind="stable").drop(columns="_o").reset_index(drop=True)
-    return frame
+    o = frame["pathway"].map(order) + (frame["species"] == "all") * 0.5
+    keys = ["site", "receptor", "period_start", "element"]
+    idx = frame[keys].assign(_o=o).sort_values(keys + ["_o"], kind="stable").index
+    return frame.take(idx).reset_index(drop=True)
 
 
 def span_table(year_table: pd.DataFrame) -> pd.DataFrame:

@@ -14,6 +14,7 @@ import numpy as np
 import xarray as xr
 
 from . import __version__
+from .csvwrite import write_csv
 from .runfolder import (OutputError, RunFolder, atomic_write, check_out_dir,  # noqa: F401
                         os_error_message)
 from .tables import BUDGET_COLUMNS, summary_table
@@ -128,8 +129,7 @@ def provenance(scenario, inputs_paths: dict, started: _dt.datetime) -> dict:
 
 
 def _csv(frame, path, dates=False):
-    frame.to_csv(path, index=False, float_format="%.10g",
-                 **({"date_format": "%Y-%m-%dT%H:%M"} if dates else {}))
+    write_csv(frame, path, "%.10g", "%Y-%m-%dT%H:%M" if dates else None)
 
 
 def write_budget_csv(result, study, scenario, path):

@@ -108,3 +108,23 @@ def test_rows_without_a_key_are_left_out_as_in_groupby():
     years = _random_rows(5, monthly=False)
     years.loc[years.index[:3], "species"] = np.nan
     pd.testing.assert_frame_equal(trend_table(years), _reference(years), check_exact=True)
+
+
+def test_a_year_twice_in_a_series_is_tested_one_series_at_a_time():
+    """Two rows of one year in a series (not the table of a run, but a table a user may
+    pass) make the annual rows one series at a time; same table."""
+    years = _random_rows(6, monthly=False)
+    first = years[years["period"] != "span"].iloc[0]
+    years = pd.concat([years, first.to_frame().T.astype(years.dtypes)], ignore_index=True)
+    pd.testing.assert_frame_equal(trend_table(years, min_years=3),
+                                  _reference(years, min_years=3), check_exact=True)
+
+
+def test_lean_budget_rows_are_the_trend_columns_of_the_full_table(analysis_run):
+    """budget_table(lean=True) has the columns a trend reads, the same rows in the same
+    order as the full table; trends from either are the same."""
+    from workbench.tables import budget_table
+    _, result, _ = analysis_run
+    full, lean = budget_table(result.years), budget_table(result.years, lean=True)
+    pd.testing.assert_frame_equal(lean, full[list(lean.columns)], check_exact=True)
+    pd.testing.assert_frame_equal(trend_table(lean), trend_table(full), check_exact=True)

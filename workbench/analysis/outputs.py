@@ -16,7 +16,8 @@ FLOAT_FORMAT = "%.10g"
 
 
 def _csv(frame, path: Path, atomic_write) -> Path:
-    return atomic_write(path, lambda t: frame.to_csv(t, index=False, float_format=FLOAT_FORMAT))
+    from ..csvwrite import write_csv
+    return atomic_write(path, lambda t: write_csv(frame, t, FLOAT_FORMAT))
 
 
 def write_analysis(result, study, scenario, out, atomic_write) -> dict:
@@ -90,14 +91,15 @@ def monthly_result(result, study):
 
 
 def yearly_and_monthly_rows(result, study):
-    """budget.csv rows of calendar years and of calendar months (without the span)."""
+    """budget.csv rows of calendar years and of calendar months (without the span); the
+    rows computed here only have the columns a trend reads (``budget_table(lean=True)``)."""
     import warnings
     from ..tables import budget_table
     if result.options.get("resolution", "year") == "year":
         year_rows = result.table[result.table["period"].astype(str) != "span"]
     else:
-        year_rows = budget_table(result.years)
+        year_rows = budget_table(result.years, lean=True)
     with warnings.catch_warnings():
         warnings.filterwarnings("ignore", "All-NaN slice encountered", RuntimeWarning)
-        month_rows = budget_table(monthly_result(result, study).budget)
+        month_rows = budget_table(monthly_result(result, study).budget, lean=True)
     return year_rows, month_rows

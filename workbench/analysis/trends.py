@@ -4,8 +4,10 @@ serial dependence among the seasons.
 
 The statistics are vectorized over the pairs of values (broadcast differences).  The
 table of a run (:func:`trend_table`) indexes all series at once (one groupby for the
-series, one for the monthly grids) and loops over the series with numpy only: a network
-has thousands of series, and a pandas call per series used to dominate a run.
+series, one for the monthly grids) and computes every series' statistics in one batch
+(:mod:`.trends_batch`, the same numbers as the functions here, which stay the
+reference): a network has thousands of series, and a call per series used to dominate
+the writing of a run.
 """
 from __future__ import annotations
 
@@ -297,21 +299,125 @@ def _series_index(frame):
     return keys, code, order
 
 
-def _left_out(status) -> str:
-    """'years left out: 2 flagged, 1 filled' (most frequent first, then first seen)."""
-    if not status.size:
-        return ""
-    values, first, counts = np.unique(status, return_index=True, return_counts=True)
-    o = np.argsort(first, kind="stable")
-    o = o[np.argsort(-counts[o], kind="stable")]
-    return "years left out: " + ", ".join(f"{counts[i]} {values[i]}" for i in o)
-
-
-def _monthly_rows(month_rows, dl_notes, min_years, alpha):
-    """Seasonal Kendall rows of :func:`trend_table`.  The (series, year, month) grid of
-    each variant is built once for all series (one groupby); each series' grid is a
-    slice of it over the years the series has rows in."""
+def _left_out_notes(code, status, n_series) -> list:
+    """'years left out: 2 flagged, 1 filled' of each series (most frequent status first,
+    then the first seen), from the series code and status of the rows left out, in the
+    order of the series' rows."""
     import pandas as pd
+    notes = [""] * n_series
+    if not code.size:
+        return notes
+    f = pd.DataFrame({"c": code, "st": status, "pos": np.arange(code.size)})
+    g = f.groupby(["c", "st"], sort=False)["pos"].agg(["size", "min"]).reset_index()
+    g = g.sort_values(["c", "size", "min"], ascending=[True, False, True], kind="stable")
+    text = g["size"].astype(str) + " " + g["st"].astype(str)
+    for c, parts in text.groupby(g["c"].to_numpy(), sort=False):
+        notes[int(c)] = "years left out: " + ", ".join(parts)
+    return notes
+
+
+def _table_rows(keys, series, stats_by_variant, min_years, excluded, dl) -> dict:
+    """Columns of trends.csv for every series and variant (series-major, variants in the
+    order of :data:`VARIANTS`), as :func:`_row` makes them one at a time."""
+    n_keys, variants = len(keys), list(VARIANTS)
+
+    def order(a):                     # series-major: series 0 all, series 0 without, ...
+        return np.stack([np.asarray(a[v]) for v in variants], axis=1).reshape(-1)
+    st = {f: order({v: stats_by_variant[v][f] for v in variants})
+          for f in stats_by_variant[variants[0]]}
+    key_cols = list(zip(*keys)) if keys else [()] * len(KEYS)
+    cols = {k: np.repeat(np.asarray(key_cols[i], dtype=object), len(variants))
+            for i, k in enumerate(KEYS)}
+    n = st["n"].astype(np.int64)
+    valid = n >= min_years
+    variant = np.tile(np.asarray(variants, dtype=object), n_keys)
+    exc = order(excluded)
+    dl_rep = np.repeat(np.asarray(dl, dtype=object), len(variants))
+    notes = []
+    for va, ok, ex, d in zip(variant.tolist(), valid.tolist(), exc.tolist(), dl_rep.tolist()):
+        note = [f"values: {va.replace('_', ' ')}"]
+        if not ok:
+            note.append(f"fewer than {min_years} complete years")
+        if ex:
+            note.append(ex)
+        if d:
+            note.append(d)
+        notes.append("; ".join(note))
+    med = st["median"]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        pct = np.where(np.isfinite(med) & (med != 0), 100.0 * st["slope"] / np.where(
+            med != 0, med, 1.0), np.nan)
+
+    def year(v):
+        if np.isnan(v).all():
+            return np.full(v.shape, None, dtype=object)
+        return v.astype(np.int64) if not np.isnan(v).any() else v
+    cols.update({"series": np.full(n.size, series, dtype=object), "n_years": n,
+                 "first_year": year(st["t_first"]), "last_year": year(st["t_last"]),
+                 "test": np.full(n.size, "mann_kendall" if series == "annual"
+                                 else "seasonal_kendall_hirsch_slack", dtype=object),
+                 "tau": st["tau"], "p_value": st["p_value"], "sen_slope_per_yr": st["slope"],
+                 "sen_slope_pct_per_yr": pct, "valid": valid,
+                 "note": np.asarray(notes, dtype=object), "values": variant, "s": st["s"],
+                 "var_s": st["var_s"], "z": st["z"], "slope_low_per_yr": st["slope_low"],
+                 "slope_high_per_yr": st["slope_high"], "intercept": st["intercept"],
+                 "unit": np.full(n.size, "kg ha-1 yr-1", dtype=object)})
+    return cols
+
+
+def _annual_columns(y, dl_notes, min_years, alpha):
+    """Mann-Kendall columns of :func:`trend_table`: the (series, year) grid of every
+    series at once (:func:`.trends_batch.mann_kendall_batch`)."""
+    import pandas as pd
+    from .trends_batch import mann_kendall_batch
+    keys, code, order = _series_index(y)
+    code = code[order]
+    year = pd.DatetimeIndex(y["period_start"]).year.to_numpy()[order]
+    x = y["flux_kg_ha_yr"].to_numpy(float)[order]
+    status = y["status"].astype(str).to_numpy()[order]
+    all_years, yi = np.unique(year, return_inverse=True)
+    if np.any(np.bincount(code * all_years.size + yi, minlength=len(keys) * all_years.size)
+              > 1):
+        return None                                  # a year twice in a series
+    stats, excluded = {}, {}
+    for variant, keep in VARIANTS.items():
+        use = np.isin(status, keep) & np.isfinite(x)
+        grid = np.full((len(keys), all_years.size), np.nan)
+        grid[code[use], yi[use]] = x[use]
+        stats[variant] = mann_kendall_batch(grid, all_years.astype(float), alpha)
+        excluded[variant] = _left_out_notes(code[~use], status[~use], len(keys))
+    dl = [_dl_note(dl_notes, *k[:1], *k[2:]) for k in keys]
+    return _table_rows(keys, "annual", stats, min_years, excluded, dl)
+
+
+def _annual_rows_per_series(y, dl_notes, min_years, alpha):
+    """The annual rows one series at a time (a series with two rows in one year)."""
+    import pandas as pd
+    keys, code, order = _series_index(y)
+    year = pd.DatetimeIndex(y["period_start"]).year.to_numpy()[order]
+    x_all = y["flux_kg_ha_yr"].to_numpy(float)[order]
+    status_all = y["status"].astype(str).to_numpy()[order]
+    bounds = np.searchsorted(code[order], np.arange(len(keys) + 1))
+    rows = []
+    for c, key in enumerate(keys):
+        sl = slice(bounds[c], bounds[c + 1])
+        years, x, status = year[sl], x_all[sl], status_all[sl]
+        dl = _dl_note(dl_notes, *key[:1], *key[2:])
+        for variant, keep in VARIANTS.items():
+            use = np.isin(status, keep) & np.isfinite(x)
+            excluded = _left_out_notes(np.zeros(int((~use).sum()), np.int64), status[~use], 1)[0]
+            r = mann_kendall(np.where(use, x, np.nan), years.astype(float), alpha)
+            rows.append(_row(key, "annual", variant, years[use], r, min_years,
+                             np.median(x[use]) if use.any() else np.nan, excluded, dl))
+    return rows
+
+
+def _monthly_columns(month_rows, dl_notes, min_years, alpha):
+    """Seasonal Kendall columns of :func:`trend_table`.  The (series, year, month) grid
+    of each variant is built once for all series (one groupby); a year a series has no
+    row in is NaN and enters no pair (:func:`.trends_batch.seasonal_kendall_batch`)."""
+    import pandas as pd
+    from .trends_batch import seasonal_kendall_batch
     m = month_rows[month_rows["period"].astype(str) != "span"]
     keys, code, _ = _series_index(m)
     ps = pd.DatetimeIndex(m["period_start"])
@@ -320,33 +426,20 @@ def _monthly_rows(month_rows, dl_notes, min_years, alpha):
     status = m["status"].astype(str).to_numpy()
     inside = code >= 0
     all_years, yi = np.unique(year, return_inverse=True)
-    present = np.zeros((len(keys), all_years.size), bool)
-    present[code[inside], yi[inside]] = True
-    grids, n_out = {}, {}
+    stats, excluded = {}, {}
     for variant, keep in VARIANTS.items():
         ok = np.isin(status, keep) & np.isfinite(flux)
-        n_out[variant] = np.bincount(code[inside & ~ok], minlength=len(keys))
+        n_out = np.bincount(code[inside & ~ok], minlength=len(keys))
         sel = inside & ok          # one groupby mean of repeated months, as pivot_table
         cell = pd.DataFrame({"c": code[sel], "y": yi[sel], "m": month[sel] - 1,
                              "f": flux[sel]}).groupby(["c", "y", "m"])["f"].mean()
         grid = np.full((len(keys), all_years.size, 12), np.nan)
         grid[tuple(np.asarray(cell.index.get_level_values(i)) for i in range(3))] = cell.to_numpy()
-        grids[variant] = grid
-    rows = []
-    for c, key in enumerate(keys):
-        dl = _dl_note(dl_notes, *key[:1], *key[2:])
-        full = present[c]
-        full_years = all_years[full]
-        for variant in VARIANTS:
-            grid = grids[variant][c][full]
-            r = seasonal_kendall(grid, full_years.astype(float), True, alpha)
-            used = full_years[~np.isnan(grid).all(axis=1)]
-            n = int(n_out[variant][c])
-            rows.append(_row(key, "monthly", variant, used, r, min_years,
-                             float(np.nanmedian(grid)) if used.size else np.nan,
-                             f"{n} months left out by status" if n else "", dl))
-    return rows
-
+        stats[variant] = seasonal_kendall_batch(grid, all_years.astype(float), alpha)
+        del grid
+        excluded[variant] = [f"{n} months left out by status" if n else "" for n in n_out]
+    dl = [_dl_note(dl_notes, *k[:1], *k[2:]) for k in keys]
+    return _table_rows(keys, "monthly", stats, min_years, excluded, dl)
 
 
 def trend_table(year_rows, month_rows=None, dl_notes=None, min_years=MIN_YEARS,
@@ -375,26 +468,14 @@ def trend_table(year_rows, month_rows=None, dl_notes=None, min_years=MIN_YEARS,
     """
     import pandas as pd
     dl_notes = dl_notes or {}
-    rows = []
     y = year_rows[year_rows["period"].astype(str) != "span"]
-    keys, code, order = _series_index(y)
-    year = pd.DatetimeIndex(y["period_start"]).year.to_numpy()[order]
-    x_all = y["flux_kg_ha_yr"].to_numpy(float)[order]
-    status_all = y["status"].astype(str).to_numpy()[order]
-    bounds = np.searchsorted(code[order], np.arange(len(keys) + 1))
-    for c, key in enumerate(keys):                 # numpy only inside: no pandas per series
-        sl = slice(bounds[c], bounds[c + 1])
-        years, x, status = year[sl], x_all[sl], status_all[sl]
-        dl = _dl_note(dl_notes, *key[:1], *key[2:])
-        for variant, keep in VARIANTS.items():
-            use = np.isin(status, keep) & np.isfinite(x)
-            excluded = _left_out(status[~use])
-            r = mann_kendall(np.where(use, x, np.nan), years.astype(float), alpha)
-            rows.append(_row(key, "annual", variant, years[use], r, min_years,
-                             np.median(x[use]) if use.any() else np.nan, excluded, dl))
+    parts = []
+    annual = _annual_columns(y, dl_notes, min_years, alpha)
+    parts.append(pd.DataFrame(annual) if annual is not None
+                 else pd.DataFrame(_annual_rows_per_series(y, dl_notes, min_years, alpha)))
     if month_rows is not None and len(month_rows):
-        rows += _monthly_rows(month_rows, dl_notes, min_years, alpha)
-    out = pd.DataFrame(rows)
-    if out.empty:
+        parts.append(pd.DataFrame(_monthly_columns(month_rows, dl_notes, min_years, alpha)))
+    parts = [p for p in parts if len(p)]
+    if not parts:
         return pd.DataFrame(columns=list(TREND_COLUMNS))
-    return out
+    return parts[0] if len(parts) == 1 else pd.concat(parts, ignore_index=True)

@@ -1,0 +1,218 @@
+"""The trend statistics of many series at once (arrays of series), for the table of a run.
+
+:func:`mann_kendall_batch` and :func:`seasonal_kendall_batch` compute, for every row of
+an array of series, exactly the numbers of :func:`workbench.analysis.trends.mann_kendall`
+and :func:`~workbench.analysis.trends.seasonal_kendall` on that row (the same equations
+and the same floating-point operations: integer-valued sums, medians as the mean of the
+two middle values, the interval by linear interpolation between ranks as ``np.interp``
+does), without a Python call per series.  The series share one axis of years; a year a
+series has no value in is NaN and enters no pair, as a missing value does in the
+per-series functions.  Series are taken in chunks so that the arrays of pairs stay
+small [about :data:`CHUNK_CELLS` values].
+"""
+from __future__ import annotations
+
+import math
+from statistics import NormalDist
+
+import numpy as np
+
+#: Largest number of (series x pairs [x seasons]) values held at once [1].
+CHUNK_CELLS = 2_000_000
+
+
+def median_rows(a) -> np.ndarray:
+    """Median of the values of each row, NaN left out (NaN for a row without values).
+
+    The same number as ``np.median`` of the row's values: the middle value of the
+    sorted values, or the mean ``(low + high) / 2`` of the two middle ones.
+    """
+    a = np.asarray(a, float)
+    if a.shape[1] == 0:
+        return np.full(a.shape[0], np.nan)
+    s = np.sort(a, axis=1)                                  # NaN sort last
+    k = np.sum(~np.isnan(a), axis=1)
+    rows = np.arange(a.shape[0])
+    lo = s[rows, np.clip((k - 1) // 2, 0, None)]
+    hi = s[rows, np.clip(k // 2, 0, a.shape[1] - 1)]
+    med = np.where(k % 2 == 1, hi, (lo + hi) / 2.0)
+    return np.where(k > 0, med, np.nan)
+
+
+def _interp_ranks(x, q, m) -> np.ndarray:
+    """``np.interp(x[r], arange(1, m[r] + 1), q[r, :m[r]])`` for every row r (q sorted)."""
+    out = np.full(x.shape, np.nan)
+    rows = np.arange(x.shape[0])
+    if q.shape[1] == 0:
+        return out
+    first = q[:, 0]
+    last = q[rows, np.clip(m - 1, 0, None)]
+    j = np.clip(np.floor(np.nan_to_num(x, nan=1.0)).astype(np.int64) - 1, 0,
+                max(q.shape[1] - 2, 0))
+    qj = q[rows, j]
+    qj1 = q[rows, np.minimum(j + 1, q.shape[1] - 1)]
+    xj = (j + 1).astype(float)
+    with np.errstate(invalid="ignore"):
+        inner = (qj1 - qj) * (x - xj) + qj
+        retry = (qj1 - qj) * (x - (xj + 1.0)) + qj1        # np.interp's second try on NaN
+        inner = np.where(np.isnan(inner), np.where(np.isnan(retry) & (qj == qj1), qj, retry),
+                         inner)
+    inner = np.where(x == xj, qj, inner)
+    res = np.where(x < 1.0, first, np.where(x >= m, last, inner))
+    res = np.where(np.isnan(x), np.nan, res)
+    res = np.where(m == 1, first, res)                      # one slope: np.interp's case
+    return np.where(m > 0, res, out)
+
+
+def _slope_interval(slopes, var_s, alpha):
+    """Low and high ends of Sen's slope interval for each row of slopes (NaN: no pair);
+    see :func:`workbench.analysis.trends._slope_interval`."""
+    q = np.sort(slopes, axis=1)
+    m = np.sum(~np.isnan(slopes), axis=1)
+    zc = NormalDist().inv_cdf(1.0 - alpha / 2.0)
+    c = zc * np.sqrt(np.maximum(var_s, 0.0))
+    return _interp_ranks((m - c) / 2.0, q, m), _interp_ranks((m + c) / 2.0 + 1.0, q, m)
+
+
+def _z_p(s, var_s):
+    """Continuity-corrected normal score and its two-sided p (as trends._z and _p)."""
+    with np.errstate(invalid="ignore", divide="ignore"):
+        z = np.where((var_s > 0) & (s != 0), (s - np.sign(s)) / np.sqrt(np.where(
+            var_s > 0, var_s, 1.0)), 0.0)
+    root2 = math.sqrt(2.0)
+    p = np.array([math.erfc(v) for v in (np.abs(z) / root2).tolist()], float)
+    return z, p
+
+
+def _tie_term(x):
+    """sum_p t_p (t_p - 1)(2 t_p + 5) over the groups of tied values of each row [1]."""
+    s = np.sort(x, axis=1)
+    valid = ~np.isnan(s)
+    n_rows, n = s.shape
+    if n == 0:
+        return np.zeros(n_rows, np.int64)
+    start = np.ones(s.shape, bool)
+    start[:, 1:] = s[:, 1:] != s[:, :-1]
+    run = np.cumsum(start, axis=1) - 1
+    gid = (np.arange(n_rows)[:, None] * n + run)[valid]
+    t = np.bincount(gid, minlength=n_rows * n).reshape(n_rows, n).astype(np.int64)
+    return np.sum(t * (t - 1) * (2 * t + 5), axis=1)
+
+
+def _chunks(n_series, per_series):
+    step = max(1, CHUNK_CELLS // max(per_series, 1))
+    return [slice(a, min(a + step, n_series)) for a in range(0, n_series, step)]
+
+
+def mann_kendall_batch(x, t, alpha) -> dict:
+    """Mann-Kendall test and Sen's slope of every row of `x`.
+
+    Parameters
+    ----------
+    x : ndarray, shape (series, years)
+        Values [any unit]; NaN missing.
+    t : ndarray, shape (years,)
+        Times of the columns [yr], increasing.
+    alpha : float
+        Two-sided level of the slope's confidence interval [1].
+
+    Returns
+    -------
+    dict of ndarray, shape (series,)
+        The fields of :class:`workbench.analysis.trends.TrendResult` (slopes
+        [unit yr-1]), the median of the values ``median`` [unit] and the first and
+        last time with a value ``t_first``, ``t_last`` [yr] (NaN: none).
+    """
+    x = np.asarray(x, float)
+    t = np.asarray(t, float)
+    n_series, n_t = x.shape
+    i, j = np.triu_indices(n_t, 1)
+    dt = t[j] - t[i]
+    valid = ~np.isnan(x)
+    n = valid.sum(axis=1).astype(np.int64)
+    var_s = (n * (n - 1) * (2 * n + 5) - _tie_term(x)) / 18.0
+    out = {k: np.full(n_series, np.nan) for k in ("s", "slope", "slope_low", "slope_high")}
+    for sl in _chunks(n_series, i.size):
+        dx = x[sl][:, j] - x[sl][:, i]
+        out["s"][sl] = np.where(np.isnan(dx), 0.0, np.sign(dx)).sum(axis=1)
+        slopes = dx / dt
+        out["slope"][sl] = median_rows(slopes)
+        out["slope_low"][sl], out["slope_high"][sl] = _slope_interval(slopes, var_s[sl], alpha)
+    s = out["s"]
+    z, p = _z_p(s, var_s)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        tau = np.where(n > 1, s / np.where(n > 1, n * (n - 1) / 2, 1.0), np.nan)
+    med = median_rows(x)
+    tt = np.where(valid, t, np.nan)
+    icpt = np.where(n > 0, med - out["slope"] * median_rows(tt), np.nan)
+    with np.errstate(invalid="ignore"):
+        first, last = np.nanmin(np.where(valid, t, np.inf), axis=1), np.nanmax(
+            np.where(valid, t, -np.inf), axis=1)
+    return {"n": n, "s": s, "var_s": var_s, "z": z, "p_value": p, "tau": tau,
+            "slope": out["slope"], "slope_low": out["slope_low"],
+            "slope_high": out["slope_high"], "intercept": icpt, "median": med,
+            "t_first": np.where(n > 0, first, np.nan), "t_last": np.where(n > 0, last, np.nan)}
+
+
+def seasonal_kendall_batch(x, t, alpha) -> dict:
+    """Seasonal Kendall test with the Hirsch-Slack covariance, every series at once.
+
+    Parameters
+    ----------
+    x : ndarray, shape (series, years, seasons)
+        Values [any unit]; NaN missing.
+    t : ndarray, shape (years,)
+        The years of the rows [yr], increasing.
+    alpha : float
+        Two-sided level of the slope's confidence interval [1].
+
+    Returns
+    -------
+    dict of ndarray, shape (series,)
+        As :func:`mann_kendall_batch` (``n``: years with at least one value), the same
+        numbers as :func:`workbench.analysis.trends.seasonal_kendall` with
+        ``correct=True`` on each series.
+    """
+    x = np.asarray(x, float)
+    t = np.asarray(t, float)
+    n_series, n_t, n_g = x.shape
+    i, j = np.triu_indices(n_t, 1)
+    dt = t[j] - t[i]
+    inc = np.zeros((n_t, i.size))                            # c = inc @ d (centred ranks)
+    inc[j, np.arange(i.size)] = 1.0
+    inc[i, np.arange(i.size)] = -1.0
+    keys = ("s", "var_s", "slope", "slope_low", "slope_high")
+    out = {k: np.full(n_series, np.nan) for k in keys}
+    for sl in _chunks(n_series, i.size * n_g):
+        dx = x[sl][:, j, :] - x[sl][:, i, :]                  # (series, pairs, seasons)
+        ok = ~np.isnan(dx)
+        d = np.where(ok, np.sign(dx), 0.0)
+        out["s"][sl] = d.reshape(d.shape[0], -1).sum(axis=1)
+        k = np.matmul(d.transpose(0, 2, 1), d)               # K_gh over pairs i < j
+        c = np.matmul(inc, d)                                 # (series, years, seasons)
+        cov = (k + np.matmul(c.transpose(0, 2, 1), c)) / 3.0
+        out["var_s"][sl] = [row.sum() for row in cov]         # as cov.sum() of one series
+        slopes = (dx / dt[None, :, None]).reshape(dx.shape[0], -1)
+        out["slope"][sl] = median_rows(slopes)
+        lo, hi = _slope_interval(slopes, out["var_s"][sl], alpha)
+        out["slope_low"][sl], out["slope_high"][sl] = lo, hi
+    s, var_s = out["s"], out["var_s"]
+    z, p = _z_p(s, var_s)
+    valid = ~np.isnan(x)
+    counts = valid.sum(axis=1)
+    pairs = np.sum(counts * (counts - 1) / 2, axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        tau = np.where(pairs != 0, s / np.where(pairs != 0, pairs, 1.0), np.nan)
+    flat = x.reshape(n_series, -1)
+    med = median_rows(flat)
+    tt = np.where(valid, t[None, :, None], np.nan).reshape(n_series, -1)
+    has = valid.any(axis=2)
+    icpt = np.where(has.any(axis=1), med - out["slope"] * median_rows(tt), np.nan)
+    with np.errstate(invalid="ignore"):
+        first = np.min(np.where(has, t, np.inf), axis=1)
+        last = np.max(np.where(has, t, -np.inf), axis=1)
+    n = has.sum(axis=1).astype(np.int64)
+    return {"n": n, "s": s, "var_s": var_s, "z": z, "p_value": p, "tau": tau,
+            "slope": out["slope"], "slope_low": out["slope_low"],
+            "slope_high": out["slope_high"], "intercept": icpt, "median": med,
+            "t_first": np.where(n > 0, first, np.nan), "t_last": np.where(n > 0, last, np.nan)}
