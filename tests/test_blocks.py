@@ -215,3 +215,31 @@ def test_cli_large_network_runs_in_blocks_without_flags(scenario_file, tmp_path,
         assert (tmp_path / "a" / name).read_bytes() == (tmp_path / "b" / name).read_bytes(), name
     assert (tmp_path / "a" / "velocities.nc").exists()
     assert not (tmp_path / "b" / "velocities.nc").exists()
+
+
+def test_met_store_read_per_block_in_process_and_by_workers(scenario_file, tmp_path,
+                                                            monkeypatch):
+    """The met kept in its on-disk store (workbench.io.metstore): blocks in process read
+    their sites from it, and workers of a local cluster read their own block from its
+    files; budget.csv and summary.csv are byte-identical to the whole run's."""
+    pytest.importorskip("distributed")
+    import workbench.io.metfast as metfast
+    import workbench.io.metstore as metstore
+    assert main(["run", str(scenario_file), "--out", str(tmp_path / "a"), "--quiet"]) == 0
+    monkeypatch.setattr(metstore, "IN_MEMORY_BYTES", 0)
+    lazy = []
+
+    def spy(ds, store, limit=None):
+        out = metstore.load_small(ds, store, limit)
+        lazy.append(metstore.is_lazy(out))
+        return out
+    monkeypatch.setattr(metfast, "load_small", spy)
+    assert main(["run", str(scenario_file), "--out", str(tmp_path / "b"), "--quiet",
+                 "--block-sites", "2"]) == 0
+    assert main(["run", str(scenario_file), "--out", str(tmp_path / "c"), "--quiet",
+                 "--workers", "2"]) == 0
+    assert lazy == [True, True]
+    for name in ("budget.csv", "summary.csv", "samples.csv"):
+        ref = (tmp_path / "a" / name).read_bytes()
+        assert ref == (tmp_path / "b" / name).read_bytes(), name
+        assert ref == (tmp_path / "c" / name).read_bytes(), name

@@ -8,10 +8,15 @@ docs/performance.md).  :func:`run_blocks` splits the sites into blocks of
 folder needs: the budget and yearly Datasets, the wet and screened Datasets and the
 tables.  The hourly velocities of a block are dropped when the block is done (unless
 ``keep_velocities``), so the peak of the computation depends on the block size, not on
-the number of sites; the inputs themselves are still read whole.
+the number of sites.  The hourly met of a large network stays in its on-disk store
+(:mod:`workbench.io.metstore`) and each block reads its own sites from it; the
+precipitation and air samples (a few rows a week) are read whole.
 
-With a ``dask.distributed`` client each block is one task: its inputs are sliced here,
-submitted with the block function, and the reduced blocks are gathered as they
+With a ``dask.distributed`` client each block is one task: its inputs are sliced here
+(a met store as its file names and the block's sites when the cluster is a local one
+started here, so each worker reads its own block; the values themselves for a
+cluster given by its scheduler address, whose workers may not see this machine's
+files), submitted with the block function, and the reduced blocks are gathered as they
 complete.  The blocks are then concatenated along ``site`` in the order of the
 catalogue, so the result does not depend on the block size, the number of workers or
 the order in which blocks finish.
@@ -115,7 +120,7 @@ def run_block(inputs, site_overrides, args: dict, keep_velocities=False) -> dict
         when ``compare_schemes`` is set; else empty).
     """
     from .comparison import schemes_in_order
-    study = Study(inputs, site_overrides)
+    study = Study(_loaded(inputs), site_overrides)
     res = study.run(**args)
     dry = res.options["dry"]
     schemes = {}
@@ -138,12 +143,26 @@ def run_block(inputs, site_overrides, args: dict, keep_velocities=False) -> dict
     return out
 
 
-def block_inputs(inputs, sites):
+def block_inputs(inputs, sites, load=True):
     """The inputs of a block of sites, without the ledger of the files (the computation
     does not read it; for the hourly met of a network it is millions of rows, which
-    would travel with every block sent to a worker)."""
+    would travel with every block sent to a worker).
+
+    A met store (:mod:`workbench.io.metstore`) is read for the block's sites only: here
+    when `load`, else by whoever loads the block (a dask worker of this machine reads
+    its own block from the store's files; only their names travel).
+    """
     from .io.ledger import Ledger
-    return dataclasses.replace(inputs.subset(sites=sites), ledger=Ledger(), gauge_check=None)
+    out = dataclasses.replace(inputs.subset(sites=sites), ledger=Ledger(), gauge_check=None)
+    return _loaded(out) if load else out
+
+
+def _loaded(inputs):
+    """`inputs` with a lazily read met (a store) read into memory."""
+    from .io.metstore import is_lazy
+    if not is_lazy(inputs.met):
+        return inputs
+    return dataclasses.replace(inputs, met=inputs.met.load())
 
 
 # ---------------------------------------------------------------- reduction
@@ -364,6 +383,7 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
         # at most two blocks per worker in flight: the sliced inputs of the blocks
         # not yet submitted are not held here all at once
         window = 2 * max(1, len(client.scheduler_info().get("workers", {})))
+        local = getattr(client, "cluster", None) is not None     # started here: same files
         futures, todo = {}, iter(enumerate(blocks))
 
         def submit():
@@ -371,8 +391,10 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
             if nxt is None:
                 return None
             i, sites = nxt
-            # sent to a worker as data, not inside the task graph
-            data = client.scatter(block_inputs(inputs, sites), hash=False)
+            # sent to a worker as data, not inside the task graph; a met store is sent
+            # as its file names and the block's sites when the workers share this
+            # machine's files (a local cluster): the worker reads its own block
+            data = client.scatter(block_inputs(inputs, sites, load=not local), hash=False)
             fut = client.submit(run_block, data, site_overrides, block_args[i],
                                 keep_velocities, pure=False)
             futures[fut] = i
