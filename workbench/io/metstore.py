@@ -35,8 +35,8 @@ from xarray.backends import BackendArray
 from xarray.core import indexing
 
 #: Grids of at most this many bytes are loaded into memory by the readers [byte]
-#: (about 110 site-years of the usual eight variables).
-IN_MEMORY_BYTES = 64 << 20
+#: (about 55 site-years of the usual eight variables).
+IN_MEMORY_BYTES = 32 << 20
 
 
 class StoreArray(BackendArray):
@@ -127,8 +127,7 @@ class MetStore:
         for name, grid in list(grids.items()) + [("row_present", present)]:
             m = np.load(self.path(name), mmap_mode="r+")
             m[first:first + len(grid)] = grid
-            m.flush()
-            del m
+            del m             # unmapped; the kernel writes the pages back (no msync wait)
 
     def dataset(self, site_ids, times, attrs: dict, site_index=None, time_slice=None):
         """The store as a lazily indexed Dataset.
