@@ -243,3 +243,30 @@ def test_met_store_read_per_block_in_process_and_by_workers(scenario_file, tmp_p
         ref = (tmp_path / "a" / name).read_bytes()
         assert ref == (tmp_path / "b" / name).read_bytes(), name
         assert ref == (tmp_path / "c" / name).read_bytes(), name
+
+
+def test_numpy_reduction_as_xarray_reindex_and_concat(setup):
+    """The reduction places each block on the network's receptors and stacks the blocks
+    with numpy: identical (values, dtypes, attributes) to xarray's reindex and concat."""
+    from workbench.blocks import (_combine_attrs, _on_receptors, _reindexed, _stacked,
+                                  block_inputs, run_block, wanted_blocks)
+    study, args = setup
+    kw = dict(zip(("wet_options", "dry_options", "budget_options", "fixed_velocity",
+                   "resolution", "start", "end"), args))
+    receptors = study.receptors()
+    outs = [run_block(block_inputs(study.inputs, sites), study.site_overrides,
+                      {**kw, "receptors": recs})
+            for sites, recs in wanted_blocks(study.catalogue(), receptors, 1)]
+    parts = [o["budget"] for o in outs]
+    assert any(list(p["receptor"].values) != receptors for p in parts)
+    placed = [_on_receptors(p, receptors) for p in parts]
+    for p, q in zip(placed, parts):
+        xr.testing.assert_identical(p, _reindexed(q, receptors))
+        assert all(p[v].dtype == q[v].dtype for v in q.data_vars)
+    for key, blocks in (("budget", placed), ("wet", [o["wet"] for o in outs])):
+        ref = xr.concat(blocks, dim="site", data_vars="minimal", coords="minimal",
+                        compat="override", join="exact", combine_attrs=_combine_attrs)
+        got = _stacked(blocks, "site")
+        xr.testing.assert_identical(got, ref)
+        for v in ref.variables:
+            assert got[v].attrs == ref[v].attrs, (key, v)

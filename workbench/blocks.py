@@ -174,11 +174,40 @@ def _fill_value(dtype):
 
 
 def _on_receptors(ds, receptors):
-    """`ds` on the network's receptor axis (a block has its own sites' receptors only)."""
+    """`ds` on the network's receptor axis (a block has its own sites' receptors only).
+
+    The variables on ``receptor`` are placed into arrays of the network's receptors
+    (filled by :func:`_fill_value`, dtypes kept) with numpy: ``Dataset.reindex`` of
+    every block cost about a second per 100 site-years."""
     if ds is None or "receptor" not in ds.dims:
         return ds
-    if list(ds["receptor"].values.astype(str)) == list(receptors):
+    have = ds["receptor"].values.astype(str)
+    if list(have) == list(receptors):
         return ds
+    pos = pd.Index(list(receptors)).get_indexer(have)
+    on_axis = [n for n, v in ds.variables.items() if "receptor" in v.dims and n != "receptor"]
+    if (pos < 0).any() or any(n not in ds.data_vars for n in on_axis):
+        return _reindexed(ds, receptors)        # a coordinate on receptor: xarray's way
+    out = {}
+    for name in on_axis:
+        v = ds.variables[name]
+        ax = v.dims.index("receptor")
+        shape = list(v.shape)
+        shape[ax] = len(receptors)
+        full = np.full(shape, _fill_value(v.dtype), dtype=v.dtype)
+        where = [slice(None)] * v.ndim
+        where[ax] = pos
+        full[tuple(where)] = v.values
+        out[name] = xr.Variable(v.dims, full, v.attrs, encoding=v.encoding)
+    res = ds.drop_vars(on_axis).drop_indexes("receptor").drop_vars("receptor")
+    res = res.assign_coords(receptor=xr.Variable("receptor", np.asarray(list(receptors)),
+                                                 ds["receptor"].attrs))
+    res = res.assign(out)
+    return res[list(ds.data_vars)].assign_attrs(ds.attrs) if list(res.data_vars) != \
+        list(ds.data_vars) else res
+
+
+def _reindexed(ds, receptors):
     fill = {v: _fill_value(ds[v].dtype) for v in ds.data_vars if "receptor" in ds[v].dims}
     out = ds.reindex(receptor=list(receptors), fill_value=fill)
     for v in fill:                      # reindex widens bool and int; keep the dtypes
@@ -236,9 +265,45 @@ def _concat(parts, dim, receptors=None):
         return None
     if len(parts) == 1:
         return parts[0]
+    if dim == "site":
+        stacked = _stacked(parts, dim)
+        if stacked is not None:
+            return stacked
     return xr.concat(parts, dim=dim, data_vars="minimal", coords="minimal", compat="override",
                      join="outer" if dim == "sample" else "exact",
                      combine_attrs=_combine_attrs)
+
+
+def _stacked(parts, dim):
+    """What the ``xr.concat`` of :func:`_concat` gives, for blocks of one layout, by one
+    ``numpy.concatenate`` per variable (xarray's concat aligned every variable of every
+    block: seconds at 1,000 site-years); None for any other layout."""
+    first = parts[0]
+    names = list(first.variables)
+    for p in parts[1:]:
+        if list(p.variables) != names or list(p.data_vars) != list(first.data_vars):
+            return None
+        for n in names:
+            a, b = first.variables[n], p.variables[n]
+            if a.dims != b.dims:
+                return None
+            if dim not in a.dims and n in first.indexes and not np.array_equal(a.values,
+                                                                              b.values):
+                return None               # another axis differs: xarray's exact join says so
+    made = {}
+    for n in names:
+        v = first.variables[n]
+        if dim not in v.dims:
+            made[n] = v                   # compat="override": the first block's
+            continue
+        vs = [p.variables[n] for p in parts]
+        made[n] = xr.Variable(v.dims, np.concatenate([x.values for x in vs],
+                                                     axis=v.dims.index(dim)),
+                              _combine_attrs([x.attrs for x in vs]), encoding=v.encoding)
+    out = xr.Dataset({n: made[n] for n in first.data_vars},
+                     coords={n: made[n] for n in first.coords})
+    out.attrs = _combine_attrs([p.attrs for p in parts])
+    return out
 
 
 def _ordered_samples(screened, positions):
