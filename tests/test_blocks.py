@@ -270,3 +270,26 @@ def test_numpy_reduction_as_xarray_reindex_and_concat(setup):
         xr.testing.assert_identical(got, ref)
         for v in ref.variables:
             assert got[v].attrs == ref[v].attrs, (key, v)
+
+
+@pytest.mark.parametrize("reverse", [False, True])
+def test_blocks_assembled_in_place_as_concat_and_reorder(setup, reverse):
+    """Each block placed straight at its sites (catalogue order) and on the network's
+    receptors: identical to placing, concatenating and reordering with xarray."""
+    from workbench.blocks import (_assembled, _concat, block_inputs, run_block,
+                                  wanted_blocks)
+    study, args = setup
+    kw = dict(zip(("wet_options", "dry_options", "budget_options", "fixed_velocity",
+                   "resolution", "start", "end"), args))
+    receptors = study.receptors()
+    outs = [run_block(block_inputs(study.inputs, sites), study.site_overrides,
+                      {**kw, "receptors": recs})
+            for sites, recs in wanted_blocks(study.catalogue(), receptors, 2)]
+    order = list(SITES)[::-1] if reverse else list(SITES)
+    for key, recs in (("budget", receptors), ("monthly", receptors), ("wet", None)):
+        parts = [o[key] for o in outs]
+        ref = _concat(parts, "site", recs).sel(site=order)
+        got = _assembled(parts, recs, order)
+        xr.testing.assert_identical(got, ref)
+        for v in ref.variables:
+            assert got[v].dtype == ref[v].dtype and got[v].attrs == ref[v].attrs, (key, v)
