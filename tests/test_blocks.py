@@ -248,8 +248,8 @@ def test_met_store_read_per_block_in_process_and_by_workers(scenario_file, tmp_p
 def test_numpy_reduction_as_xarray_reindex_and_concat(setup):
     """The reduction places each block on the network's receptors and stacks the blocks
     with numpy: identical (values, dtypes, attributes) to xarray's reindex and concat."""
-    from workbench.blocks import (_combine_attrs, _on_receptors, _reindexed, _stacked,
-                                  block_inputs, run_block, wanted_blocks)
+    from workbench.blockreduce import _combine_attrs, _on_receptors, _reindexed, _stacked
+    from workbench.blocks import block_inputs, run_block, wanted_blocks
     study, args = setup
     kw = dict(zip(("wet_options", "dry_options", "budget_options", "fixed_velocity",
                    "resolution", "start", "end"), args))
@@ -276,8 +276,8 @@ def test_numpy_reduction_as_xarray_reindex_and_concat(setup):
 def test_blocks_assembled_in_place_as_concat_and_reorder(setup, reverse):
     """Each block placed straight at its sites (catalogue order) and on the network's
     receptors: identical to placing, concatenating and reordering with xarray."""
-    from workbench.blocks import (_assembled, _concat, block_inputs, run_block,
-                                  wanted_blocks)
+    from workbench.blockreduce import _assembled, _concat
+    from workbench.blocks import block_inputs, run_block, wanted_blocks
     study, args = setup
     kw = dict(zip(("wet_options", "dry_options", "budget_options", "fixed_velocity",
                    "resolution", "start", "end"), args))

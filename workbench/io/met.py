@@ -14,7 +14,6 @@ import pandas as pd
 import xarray as xr
 
 from ..errors import InputError, suggest
-from ..units import convert_plain, parse_unit, ureg
 from . import metchecks
 from .common import check_sites, join_reasons, unit_error
 from .ledger import Ledger

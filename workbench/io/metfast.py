@@ -1,13 +1,20 @@
-"""Hourly met CSV of a whole network, read in chunks into compact arrays.
+"""Hourly met CSV of a whole network, read in chunks into an on-disk store.
 
 The line-by-line reader (:class:`~workbench.io.table.RawTable`) holds every cell of the
 file as text: for the hourly met of a large network (millions of rows) that is several
 GB and most of the reading time.  :func:`read_met_csv_fast` reads the same file in
 chunks of bytes with the C parser of pandas straight into float64 arrays (the site and
-the time as small integer codes, each distinct timestamp text parsed once), runs the
-plausibility checks of :mod:`workbench.io.metchecks` one group of sites at a time (they
-are per site, so the result is the same) and keeps the ledger as codes
-(:class:`~workbench.io.ledger.CodedRows`).
+the time as small integer codes, each distinct timestamp text parsed once) and appends
+each chunk's times and values to scratch files, keeping only the site code of each row
+(4 bytes) in memory.  It then runs the plausibility checks of
+:mod:`workbench.io.metchecks` one group of whole sites at a time (they are per site,
+so the result is the same): when each site's rows are together in the file, a group's
+rows are read site by site from the scratch files; when sites are interleaved, through
+the stable sort order of the site codes (8 more bytes a row).  Each group's checked
+values go to the site-major :class:`~workbench.io.metstore.MetStore` (read lazily per
+block of sites; a small one is read back into memory), and the ledger is kept as codes
+(:class:`~workbench.io.ledger.CodedRows`).  So the reading peak is set by the chunk and
+group sizes, not by the file (plus 13 bytes a row of ledger).
 
 It takes only files it can read exactly as the line-by-line reader does: plain
 ``# key: value`` lines above the header, no quotes, no blanks in the data rows, no
