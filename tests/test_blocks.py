@@ -220,8 +220,9 @@ def test_cli_large_network_runs_in_blocks_without_flags(scenario_file, tmp_path,
 def test_met_store_read_per_block_in_process_and_by_workers(scenario_file, tmp_path,
                                                             monkeypatch):
     """The met kept in its on-disk store (workbench.io.metstore): blocks in process read
-    their sites from it, and workers of a local cluster read their own block from its
-    files; budget.csv and summary.csv are byte-identical to the whole run's."""
+    their sites from it, workers of a local cluster read their own block from its files,
+    and a whole run reads it lazily; budget.csv, summary.csv and samples.csv are
+    byte-identical to those of the whole run on the met in memory."""
     pytest.importorskip("distributed")
     import workbench.io.metfast as metfast
     import workbench.io.metstore as metstore
@@ -238,11 +239,12 @@ def test_met_store_read_per_block_in_process_and_by_workers(scenario_file, tmp_p
                  "--block-sites", "2"]) == 0
     assert main(["run", str(scenario_file), "--out", str(tmp_path / "c"), "--quiet",
                  "--workers", "2"]) == 0
-    assert lazy == [True, True]
+    assert main(["run", str(scenario_file), "--out", str(tmp_path / "d"), "--quiet"]) == 0
+    assert lazy == [True, True, True]
     for name in ("budget.csv", "summary.csv", "samples.csv"):
         ref = (tmp_path / "a" / name).read_bytes()
-        assert ref == (tmp_path / "b" / name).read_bytes(), name
-        assert ref == (tmp_path / "c" / name).read_bytes(), name
+        for run in "bcd":                 # blocks, workers, and a whole run on the store
+            assert ref == (tmp_path / run / name).read_bytes(), (run, name)
 
 
 def test_numpy_reduction_as_xarray_reindex_and_concat(setup):
