@@ -293,9 +293,10 @@ def _netcdf_body(raw, path, catalogue):
         for v in values.values():
             empty &= np.isnan(v)
         reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, raw_units)
-        reasons = np.where(empty, join_reasons(
-            [reasons, np.full(len(sites), "all variables missing (NaN) in the record", object)]),
-            reasons)
+        reasons = np.asarray(reasons, dtype=object)
+        if empty.any():                     # joined on the empty records only
+            reasons[empty] = join_reasons([reasons[empty], np.full(
+                int(empty.sum()), "all variables missing (NaN) in the record", object)])
         codes, uniq = pd.factorize(reasons)
         for u in uniq:
             texts.setdefault(u, len(texts))

@@ -415,8 +415,11 @@ def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variabl
         for v in sub.values():
             empty &= np.isnan(v)
         reasons, sub = metchecks.run_row_checks(sub, ids[st], tt, catalogue, units)
-        reasons = np.where(empty, join_reasons(
-            [reasons, np.full(len(grp), "no values in the row", object)]), reasons)
+        reasons = np.asarray(reasons, dtype=object)
+        if empty.any():                     # joined on the empty rows only (the same text)
+            reasons[empty] = join_reasons([reasons[empty], np.full(int(empty.sum()),
+                                                                   "no values in the row",
+                                                                   object)])
         inv, uniq = pd.factorize(reasons)
         for u in uniq:
             texts.setdefault(str(u), len(texts))
