@@ -155,15 +155,98 @@ def child(scenario, out_dir, extra=()):
     import resource
     sys.path.insert(0, str(ROOT))
     from workbench.cli import main as cli
+    phases = _Phases()
     t = time.perf_counter()
-    code = cli(["run", str(scenario), "--out", str(out_dir), "--quiet", *extra])
+    try:
+        code = cli(["run", str(scenario), "--out", str(out_dir), "--quiet", *extra])
+    finally:
+        phases.stop()
     wall = time.perf_counter() - t
     use = resource.getrusage(resource.RUSAGE_SELF)
     kids = resource.getrusage(resource.RUSAGE_CHILDREN)
     print(json.dumps({"exit_code": code, "wall_s": wall, "cpu_s": use.ru_utime + use.ru_stime,
                       "peak_rss_mb": use.ru_maxrss / 1024.0,
                       "children_cpu_s": kids.ru_utime + kids.ru_stime,
-                      "children_peak_rss_mb": kids.ru_maxrss / 1024.0, "run_args": list(extra)}))
+                      "children_peak_rss_mb": kids.ru_maxrss / 1024.0, "run_args": list(extra),
+                      "phases": phases.table()}))
+
+
+class _Phases:
+    """Wall time and largest resident memory of each phase of ``workbench run`` in this
+    process: reading (``prepare``), the computation (``run_network`` or the whole run),
+    and writing each file of the run folder (the names ``write_files`` reports).  A
+    thread reads the resident size from ``/proc/self/statm`` every 20 ms (Linux; the
+    table is empty elsewhere); the phases are marked by wrapping those functions."""
+
+    def __init__(self):
+        import threading
+        import workbench.blocks as blocks
+        import workbench.comparison as comparison
+        import workbench.preflight as preflight
+        import workbench.writers as writers
+        self.name, self.rows, self.t0 = "start", {}, time.perf_counter()
+        self.page = os.sysconf("SC_PAGE_SIZE") if hasattr(os, "sysconf") else 4096
+        self._stop = threading.Event()
+        self._thread = threading.Thread(target=self._sample, daemon=True)
+        self._thread.start()
+
+        def wrap(mod, attr, label, progress_at=None):
+            fn = getattr(mod, attr)
+
+            def marked(*a, **k):
+                self.mark(label)
+                if progress_at is not None:        # (keyword, position) of `progress`
+                    kw, pos = progress_at
+                    a = list(a)
+                    inner = a[pos] if len(a) > pos else k.get(kw)
+                    say = (lambda text: (self.mark(f"write {text}"), inner(text))) if inner \
+                        else (lambda text: self.mark(f"write {text}"))
+                    if len(a) > pos:
+                        a[pos] = say
+                    else:
+                        k[kw] = say
+                try:
+                    return fn(*a, **k)
+                finally:
+                    self.mark("other")
+            setattr(mod, attr, marked)
+        wrap(preflight, "prepare", "read inputs")
+        wrap(blocks, "run_network", "compute (blocks)")
+        wrap(comparison, "run", "compute (whole run)")
+        wrap(writers, "write_files", "write run folder", ("progress", 4))
+
+    def _rss_mb(self):
+        try:
+            with open("/proc/self/statm") as f:
+                return int(f.read().split()[1]) * self.page / 2**20
+        except OSError:
+            return None
+
+    def _sample(self):
+        while not self._stop.is_set():
+            self.mark(None)
+            self._stop.wait(0.02)
+
+    def mark(self, name):
+        rss, now = self._rss_mb(), time.perf_counter()
+        row = self.rows.setdefault(self.name, {"wall_s": 0.0, "peak_mb": 0.0, "_t": now})
+        if rss is not None:
+            row["peak_mb"] = max(row["peak_mb"], rss)
+        if name is not None and name != self.name:
+            row["wall_s"] += now - row.pop("_t")
+            self.name = name
+            self.rows.setdefault(name, {"wall_s": 0.0, "peak_mb": 0.0})["_t"] = now
+            if rss is not None:
+                self.rows[name]["peak_mb"] = max(self.rows[name]["peak_mb"], rss)
+
+    def stop(self):
+        self.mark("end")
+        self._stop.set()
+        self._thread.join()
+
+    def table(self):
+        return {k: {"wall_s": round(v["wall_s"], 2), "peak_mb": round(v["peak_mb"], 1)}
+                for k, v in self.rows.items() if k not in ("start", "end")}
 
 
 def measure(size, years, work, extra=()):
@@ -283,6 +366,9 @@ def main(argv=None):
                       + (f"; {' '.join(extra)}: workers' CPU {row['children_cpu_s']:.1f} s, "
                          f"largest worker peak RSS {row['children_peak_rss_mb']:.0f} MB"
                          if extra else ""))
+                for name, ph in row.get("phases", {}).items():
+                    print(f"      {name:<36} wall {ph['wall_s']:7.2f} s, peak RSS "
+                          f"{ph['peak_mb']:7.0f} MB")
             else:
                 print(f"{size:5d} site-years: {row['status']}")
     finally:

@@ -215,3 +215,83 @@ def test_cli_large_network_runs_in_blocks_without_flags(scenario_file, tmp_path,
         assert (tmp_path / "a" / name).read_bytes() == (tmp_path / "b" / name).read_bytes(), name
     assert (tmp_path / "a" / "velocities.nc").exists()
     assert not (tmp_path / "b" / "velocities.nc").exists()
+
+
+def test_met_store_read_per_block_in_process_and_by_workers(scenario_file, tmp_path,
+                                                            monkeypatch):
+    """The met kept in its on-disk store (workbench.io.metstore): blocks in process read
+    their sites from it, workers of a local cluster read their own block from its files,
+    and a whole run reads it lazily; budget.csv, summary.csv and samples.csv are
+    byte-identical to those of the whole run on the met in memory."""
+    pytest.importorskip("distributed")
+    import workbench.io.metfast as metfast
+    import workbench.io.metstore as metstore
+    assert main(["run", str(scenario_file), "--out", str(tmp_path / "a"), "--quiet"]) == 0
+    monkeypatch.setattr(metstore, "IN_MEMORY_BYTES", 0)
+    lazy = []
+
+    def spy(ds, store, limit=None):
+        out = metstore.load_small(ds, store, limit)
+        lazy.append(metstore.is_lazy(out))
+        return out
+    monkeypatch.setattr(metfast, "load_small", spy)
+    assert main(["run", str(scenario_file), "--out", str(tmp_path / "b"), "--quiet",
+                 "--block-sites", "2"]) == 0
+    assert main(["run", str(scenario_file), "--out", str(tmp_path / "c"), "--quiet",
+                 "--workers", "2"]) == 0
+    assert main(["run", str(scenario_file), "--out", str(tmp_path / "d"), "--quiet"]) == 0
+    assert lazy == [True, True, True]
+    for name in ("budget.csv", "summary.csv", "samples.csv"):
+        ref = (tmp_path / "a" / name).read_bytes()
+        for run in "bcd":                 # blocks, workers, and a whole run on the store
+            assert ref == (tmp_path / run / name).read_bytes(), (run, name)
+
+
+def test_numpy_reduction_as_xarray_reindex_and_concat(setup):
+    """The reduction places each block on the network's receptors and stacks the blocks
+    with numpy: identical (values, dtypes, attributes) to xarray's reindex and concat."""
+    from workbench.blockreduce import _combine_attrs, _on_receptors, _reindexed, _stacked
+    from workbench.blocks import block_inputs, run_block, wanted_blocks
+    study, args = setup
+    kw = dict(zip(("wet_options", "dry_options", "budget_options", "fixed_velocity",
+                   "resolution", "start", "end"), args))
+    receptors = study.receptors()
+    outs = [run_block(block_inputs(study.inputs, sites), study.site_overrides,
+                      {**kw, "receptors": recs})
+            for sites, recs in wanted_blocks(study.catalogue(), receptors, 1)]
+    parts = [o["budget"] for o in outs]
+    assert any(list(p["receptor"].values) != receptors for p in parts)
+    placed = [_on_receptors(p, receptors) for p in parts]
+    for p, q in zip(placed, parts):
+        xr.testing.assert_identical(p, _reindexed(q, receptors))
+        assert all(p[v].dtype == q[v].dtype for v in q.data_vars)
+    for key, blocks in (("budget", placed), ("wet", [o["wet"] for o in outs])):
+        ref = xr.concat(blocks, dim="site", data_vars="minimal", coords="minimal",
+                        compat="override", join="exact", combine_attrs=_combine_attrs)
+        got = _stacked(blocks, "site")
+        xr.testing.assert_identical(got, ref)
+        for v in ref.variables:
+            assert got[v].attrs == ref[v].attrs, (key, v)
+
+
+@pytest.mark.parametrize("reverse", [False, True])
+def test_blocks_assembled_in_place_as_concat_and_reorder(setup, reverse):
+    """Each block placed straight at its sites (catalogue order) and on the network's
+    receptors: identical to placing, concatenating and reordering with xarray."""
+    from workbench.blockreduce import _assembled, _concat
+    from workbench.blocks import block_inputs, run_block, wanted_blocks
+    study, args = setup
+    kw = dict(zip(("wet_options", "dry_options", "budget_options", "fixed_velocity",
+                   "resolution", "start", "end"), args))
+    receptors = study.receptors()
+    outs = [run_block(block_inputs(study.inputs, sites), study.site_overrides,
+                      {**kw, "receptors": recs})
+            for sites, recs in wanted_blocks(study.catalogue(), receptors, 2)]
+    order = list(SITES)[::-1] if reverse else list(SITES)
+    for key, recs in (("budget", receptors), ("monthly", receptors), ("wet", None)):
+        parts = [o[key] for o in outs]
+        ref = _concat(parts, "site", recs).sel(site=order)
+        got = _assembled(parts, recs, order)
+        xr.testing.assert_identical(got, ref)
+        for v in ref.variables:
+            assert got[v].dtype == ref[v].dtype and got[v].attrs == ref[v].attrs, (key, v)

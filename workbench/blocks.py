@@ -8,10 +8,15 @@ docs/performance.md).  :func:`run_blocks` splits the sites into blocks of
 folder needs: the budget and yearly Datasets, the wet and screened Datasets and the
 tables.  The hourly velocities of a block are dropped when the block is done (unless
 ``keep_velocities``), so the peak of the computation depends on the block size, not on
-the number of sites; the inputs themselves are still read whole.
+the number of sites.  The hourly met of a large network stays in its on-disk store
+(:mod:`workbench.io.metstore`) and each block reads its own sites from it; the
+precipitation and air samples (a few rows a week) are read whole.
 
-With a ``dask.distributed`` client each block is one task: its inputs are sliced here,
-submitted with the block function, and the reduced blocks are gathered as they
+With a ``dask.distributed`` client each block is one task: its inputs are sliced here
+(a met store as its file names and the block's sites when the cluster is a local one
+started here, so each worker reads its own block; the values themselves for a
+cluster given by its scheduler address, whose workers may not see this machine's
+files), submitted with the block function, and the reduced blocks are gathered as they
 complete.  The blocks are then concatenated along ``site`` in the order of the
 catalogue, so the result does not depend on the block size, the number of workers or
 the order in which blocks finish.
@@ -26,15 +31,13 @@ pairs only and are the same.
 from __future__ import annotations
 
 import dataclasses
-import json
 
 import numpy as np
 import pandas as pd
-import xarray as xr
 
+from .blockreduce import reduce_blocks
 from .io.common import release_free_memory
 from .pipeline import Result, Study
-from .tables import budget_table, span_table
 
 __all__ = ["run_blocks", "run_network", "site_blocks", "start_client", "wanted_blocks",
            "wants_blocks"]
@@ -115,7 +118,7 @@ def run_block(inputs, site_overrides, args: dict, keep_velocities=False) -> dict
         when ``compare_schemes`` is set; else empty).
     """
     from .comparison import schemes_in_order
-    study = Study(inputs, site_overrides)
+    study = Study(_loaded(inputs), site_overrides)
     res = study.run(**args)
     dry = res.options["dry"]
     schemes = {}
@@ -138,146 +141,26 @@ def run_block(inputs, site_overrides, args: dict, keep_velocities=False) -> dict
     return out
 
 
-def block_inputs(inputs, sites):
+def block_inputs(inputs, sites, load=True):
     """The inputs of a block of sites, without the ledger of the files (the computation
     does not read it; for the hourly met of a network it is millions of rows, which
-    would travel with every block sent to a worker)."""
+    would travel with every block sent to a worker).
+
+    A met store (:mod:`workbench.io.metstore`) is read for the block's sites only: here
+    when `load`, else by whoever loads the block (a dask worker of this machine reads
+    its own block from the store's files; only their names travel).
+    """
     from .io.ledger import Ledger
-    return dataclasses.replace(inputs.subset(sites=sites), ledger=Ledger(), gauge_check=None)
+    out = dataclasses.replace(inputs.subset(sites=sites), ledger=Ledger(), gauge_check=None)
+    return _loaded(out) if load else out
 
 
-# ---------------------------------------------------------------- reduction
-def _fill_value(dtype):
-    """The value of a (site, receptor) pair a block has no receptor for."""
-    kind = np.dtype(dtype).kind
-    return {"f": np.nan, "c": np.nan, "b": False, "i": 0, "u": 0, "M": np.datetime64("NaT"),
-            "m": np.timedelta64("NaT")}.get(kind, "")
-
-
-def _on_receptors(ds, receptors):
-    """`ds` on the network's receptor axis (a block has its own sites' receptors only)."""
-    if ds is None or "receptor" not in ds.dims:
-        return ds
-    if list(ds["receptor"].values.astype(str)) == list(receptors):
-        return ds
-    fill = {v: _fill_value(ds[v].dtype) for v in ds.data_vars if "receptor" in ds[v].dims}
-    out = ds.reindex(receptor=list(receptors), fill_value=fill)
-    for v in fill:                      # reindex widens bool and int; keep the dtypes
-        if out[v].dtype != ds[v].dtype and ds[v].dtype.kind in "biu":
-            out[v] = out[v].astype(ds[v].dtype)
-    return out
-
-
-def _combine_attrs(attrs_list, context=None):
-    """One attribute set for the concatenated blocks.
-
-    Options (a name with "option") are the first block's; counts (integers, or JSON
-    objects of numbers) are summed; JSON lists are joined without repeats; anything
-    else is the first block's.
-    """
-    out = {}
-    for key in dict.fromkeys(k for a in attrs_list for k in a):
-        vals = [a[key] for a in attrs_list if key in a]
-        first = vals[0]
-        if "option" in key:             # the options of the run: the same in every block
-            out[key] = first
-            continue
-        if all(isinstance(v, (int, np.integer)) and not isinstance(v, bool) for v in vals):
-            out[key] = int(sum(vals))
-            continue
-        if not all(isinstance(v, str) for v in vals):
-            out[key] = first
-            continue
-        try:
-            parsed = [json.loads(v) for v in vals]
-        except ValueError:
-            out[key] = first
-            continue
-        if all(isinstance(p, list) for p in parsed):
-            seen = []
-            for p in parsed:
-                seen += [x for x in p if x not in seen]
-            out[key] = json.dumps(seen)
-        elif all(isinstance(p, dict) and all(isinstance(x, (int, float)) for x in p.values())
-                 for p in parsed):
-            total = {}
-            for p in parsed:
-                for k, x in p.items():
-                    total[k] = total.get(k, 0) + x
-            out[key] = json.dumps(total)
-        else:
-            out[key] = first
-    return out
-
-
-def _concat(parts, dim, receptors=None):
-    parts = [p if receptors is None else _on_receptors(p, receptors) for p in parts
-             if p is not None]
-    if not parts:
-        return None
-    if len(parts) == 1:
-        return parts[0]
-    return xr.concat(parts, dim=dim, data_vars="minimal", coords="minimal", compat="override",
-                     join="outer" if dim == "sample" else "exact",
-                     combine_attrs=_combine_attrs)
-
-
-def _ordered_samples(screened, positions):
-    """The screened samples in the order of the input file."""
-    if screened is None or positions is None or len(positions) != screened.sizes["sample"]:
-        return screened
-    return screened.isel(sample=np.argsort(positions, kind="stable"))
-
-
-def reduce_blocks(blocks, receptors, sample_positions=None, sites=None) -> Result:
-    """Concatenate reduced blocks (in catalogue order) into one :class:`Result`.
-
-    Parameters
-    ----------
-    blocks : list of dict
-        :func:`run_block` outputs, in the order of the sites.
-    receptors : list of str
-        The network's receptor surfaces, in the order of a whole run.
-    sample_positions : list of numpy.ndarray, optional
-        Each block's rows of the precipitation input (to keep the file order).
-    sites : list of str, optional
-        The network's sites in catalogue order (blocks of sites asking for the same
-        surfaces are not consecutive in the catalogue); default: the blocks' order.
-    """
-    first = blocks[0]
-
-    def cat(parts, dim, receptors=None):
-        out = _concat(parts, dim, receptors)
-        if sites is None or out is None or dim != "site" or \
-                list(out["site"].values.astype(str)) == list(sites):
-            return out
-        return out.sel(site=[s for s in sites if s in set(out["site"].values.astype(str))])
-
-    budget = cat([b["budget"] for b in blocks], "site", receptors)
-    years = (budget if first["years"] is None else
-             cat([b["years"] for b in blocks], "site", receptors))
-    screened = _concat([b["screened"] for b in blocks], "sample")
-    if sample_positions is not None:
-        screened = _ordered_samples(screened, np.concatenate(sample_positions))
-    notes = list(dict.fromkeys(n for b in blocks for n in b["notes"]))
-    result = Result(budget=budget, years=years, screened=screened,
-                    wet=cat([b["wet"] for b in blocks], "site"),
-                    velocities=cat([b["velocities"] for b in blocks], "site", receptors),
-                    periods=first["periods"], options={**first["options"], "receptors": None},
-                    notes=notes)
-    if first.get("monthly") is not None:
-        result.monthly_budget = cat([b["monthly"] for b in blocks], "site", receptors)
-    if first["schemes"]:
-        tables = [result.table.assign(scheme=first["options"]["dry"].gas_scheme)]
-        for scheme in first["schemes"]:
-            b = cat([blk["schemes"][scheme][0] for blk in blocks], "site", receptors)
-            y = b if first["schemes"][scheme][1] is None else cat(
-                [blk["schemes"][scheme][1] for blk in blocks], "site", receptors)
-            span = span_table(budget_table(y))
-            tables.append(pd.concat([budget_table(b), span], ignore_index=True)
-                          .assign(scheme=scheme))
-        result.__dict__["table"] = pd.concat(tables, ignore_index=True)
-    return result
+def _loaded(inputs):
+    """`inputs` with a lazily read met (a store) read into memory."""
+    from .io.metstore import is_lazy
+    if not is_lazy(inputs.met):
+        return inputs
+    return dataclasses.replace(inputs, met=inputs.met.load())
 
 
 # ---------------------------------------------------------------- the runner
@@ -364,6 +247,7 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
         # at most two blocks per worker in flight: the sliced inputs of the blocks
         # not yet submitted are not held here all at once
         window = 2 * max(1, len(client.scheduler_info().get("workers", {})))
+        local = getattr(client, "cluster", None) is not None     # started here: same files
         futures, todo = {}, iter(enumerate(blocks))
 
         def submit():
@@ -371,8 +255,10 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
             if nxt is None:
                 return None
             i, sites = nxt
-            # sent to a worker as data, not inside the task graph
-            data = client.scatter(block_inputs(inputs, sites), hash=False)
+            # sent to a worker as data, not inside the task graph; a met store is sent
+            # as its file names and the block's sites when the workers share this
+            # machine's files (a local cluster): the worker reads its own block
+            data = client.scatter(block_inputs(inputs, sites, load=not local), hash=False)
             fut = client.submit(run_block, data, site_overrides, block_args[i],
                                 keep_velocities, pure=False)
             futures[fut] = i

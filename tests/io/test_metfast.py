@@ -177,3 +177,54 @@ def test_large_ledgers_as_codes_equal_the_table():
     pd.testing.assert_frame_equal(small.table, coded.table)
     pd.testing.assert_frame_equal(small.summary(), coded.summary())
     pd.testing.assert_frame_equal(small.reasons(), coded.reasons(), check_dtype=False)
+
+
+# ---------------------------------------------------------------- the on-disk store
+@pytest.fixture()
+def on_disk(monkeypatch):
+    """Every met grid stays in its store (lazy), checked in small groups of sites."""
+    import workbench.io.metstore as metstore
+    monkeypatch.setattr(metstore, "IN_MEMORY_BYTES", 0)
+    monkeypatch.setattr(metfast, "CHECK_ROWS", 5000)
+
+
+def test_demo_met_on_disk_as_the_line_reader(monkeypatch, on_disk):
+    """The store (site-major .npy files, read lazily) holds the line reader's values; a
+    block of sites reads only its rows; the Dataset pickles as file names (a dask worker
+    reads its own block) and the folder goes with the last Dataset reading it."""
+    import gc
+    import pickle
+    from workbench.io.metstore import is_lazy
+    cat = read_sites(DEMO / "sites.toml")
+    ds, led = metfast.read_met_csv_fast(DEMO / "met.csv.gz", cat)
+    assert is_lazy(ds)
+    line = _line_reader(monkeypatch, DEMO / "met.csv.gz", cat)
+    assert_same((ds, led), line)
+    block = ds.sel(site=list(ds["site"].values[[2, 0]])).isel(time=slice(100, 900))
+    assert is_lazy(block)
+    xr.testing.assert_identical(block.load(), line[0].sel(site=block["site"].values)
+                                .isel(time=slice(100, 900)))
+    again = pickle.loads(pickle.dumps(ds.sel(site=ds["site"].values[1:3])))
+    assert len(pickle.dumps(ds)) < ds["time"].nbytes + 20_000    # file names, not values
+    xr.testing.assert_identical(again.load(), line[0].isel(site=slice(1, 3)))
+    folder = Path(ds["wind_speed"].variable._data.array.path).parent
+    assert folder.exists()
+    del ds, block, again
+    gc.collect()
+    assert not folder.exists()
+
+
+@pytest.mark.parametrize("grouped", [True, False])
+def test_store_grouped_or_interleaved_sites(tmp_path, cat, monkeypatch, on_disk, grouped):
+    """Rows of each site together (read site by site) or interleaved (the fallback sorts
+    the rows' site codes): the same values, ledger and notes as the line reader, with
+    empty rows, flags and a site whose rows are all empty."""
+    a = _rows("alpha", "2020-03-01T00:00", 24 * 30)
+    b = _rows("beta", "2020-03-03T00:00", 24 * 20, rh_scale=0.01, seed=1)
+    a[5] = "alpha,2020-03-01T05:00,,,,,,,,\n"
+    rows = a + b if grouped else [r for pair in zip(a, b) for r in pair] + a[len(b):]
+    p = tmp_path / "met.csv"
+    p.write_text(HEAD + "".join(rows))
+    fast = metfast.read_met_csv_fast(p, cat, chunk_bytes=4096)
+    assert fast is not None
+    assert_same(fast, _line_reader(monkeypatch, p, cat))

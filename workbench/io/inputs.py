@@ -11,6 +11,7 @@ import xarray as xr
 from .ledger import Ledger
 from .met import read_met
 from .metchecks import gauge_comparison
+from .metstore import is_lazy
 from .samples import read_air, read_precipitation
 from .sites import SiteCatalogue, read_sites
 
@@ -159,10 +160,34 @@ def load_inputs(sites, precipitation=None, air=None, met=None, reference_state=N
         inp.ledger = inp.ledger + led
         inp.paths["met"] = Path(met)
     if inp.met is not None and inp.precipitation is not None:
-        gc = gauge_comparison(inp.met, inp.precipitation)
+        gc = _gauge_check(inp.met, inp.precipitation)
         inp.gauge_check = gc
         bad = gc[gc["suspicious"]]
         if len(bad):
             inp.ledger.add_reason(inp.paths["precipitation"], bad["line"].to_numpy(),
                                   "hourly met precipitation over the sample far from the gauge depth")
     return inp
+
+
+#: Sites of a met store read at a time by the gauge check [sites].
+GAUGE_SITES = 50
+
+
+def _gauge_check(met, samples):
+    """:func:`~workbench.io.metchecks.gauge_comparison`, on a met store
+    :data:`GAUGE_SITES` sites at a time (the rows in the order of the samples)."""
+    if not is_lazy(met):
+        return gauge_comparison(met, samples)
+    ids = met["site"].values.astype(str)
+    psites = pd.Index(samples["site"].values.astype(str).astype(object))
+    parts = []
+    for k in range(0, len(ids), GAUGE_SITES):
+        group = ids[k:k + GAUGE_SITES]
+        rows = np.flatnonzero(psites.isin(group))
+        if len(rows):
+            part = gauge_comparison(met.isel(site=slice(k, k + GAUGE_SITES)).load(),
+                                    samples.isel(sample=rows))
+            parts.append(part.set_axis(rows))
+    if not parts:
+        return gauge_comparison(met.isel(site=slice(0, 0)).load(), samples)
+    return pd.concat(parts).sort_index().reset_index(drop=True)

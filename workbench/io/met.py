@@ -14,7 +14,6 @@ import pandas as pd
 import xarray as xr
 
 from ..errors import InputError, suggest
-from ..units import convert_plain, parse_unit, ureg
 from . import metchecks
 from .common import check_sites, join_reasons, unit_error
 from .ledger import Ledger
@@ -136,15 +135,23 @@ def _assemble(values, sites, t, lines, path, catalogue, raw_units, empty_reason)
     return ds, ledger
 
 
+#: Records of a NetCDF met file checked at a time (whole sites; the checks are per site).
+NETCDF_GROUP_RECORDS = 400_000
+
+
 def _read_met_netcdf(path: Path, catalogue):
     """The NetCDF path, held to the CSV rules: dims (site, time) only, site ids in the
     catalogue, whole and unique hours, units converted once, every record in the
-    ledger (its "line" is the record number of the (site, time) grid, 1-based)."""
+    ledger (its "line" is the record number of the (site, time) grid, 1-based).
+
+    The file is opened lazily and read :data:`NETCDF_GROUP_RECORDS` records (whole
+    sites) at a time into a :class:`~workbench.io.metstore.MetStore`, so no step holds
+    the met of every site."""
     if not path.exists():
         raise InputError("file not found", file=path, expected="an existing file")
+    _needs_hdf5_engine(path)
     try:
         raw = xr.open_dataset(path)
-        raw.load()
     except Exception as exc:  # many engines, many error types
         first = str(exc).strip().splitlines()[0][:160] if str(exc).strip() else ""
         hint = (" (reading NetCDF needs the scipy or netCDF4 package)"
@@ -155,7 +162,21 @@ def _read_met_netcdf(path: Path, catalogue):
         return _netcdf_body(raw, path, catalogue)
 
 
-def _netcdf_body(raw, path, catalogue):
+def _needs_hdf5_engine(path):
+    """Raise the located error naming the extra when a NetCDF4 (HDF5) file cannot be read."""
+    with open(path, "rb") as f:
+        if f.read(4) != b"\x89HDF":
+            return
+    import importlib.util
+    if importlib.util.find_spec("netCDF4") or importlib.util.find_spec("h5netcdf"):
+        return
+    raise InputError("a NetCDF4 (HDF5) file, and no reader of that format is installed",
+                     file=path, expected='a NetCDF3 file, or the netCDF4 package: python -m pip '
+                     'install "deposition-workbench[netcdf4]"')
+
+
+def _netcdf_layout(raw, path, catalogue):
+    """The structural checks of a NetCDF met file; (squeezed notes, label) or raise."""
     for dim in ("site", "time"):
         if dim not in raw.dims:
             raise InputError("missing dimension", file=path, column=dim,
@@ -196,19 +217,12 @@ def _netcdf_body(raw, path, catalogue):
         s = ids[np.flatnonzero(unknown)[0]]
         raise InputError("site not in the catalogue", file=path, column="site", value=s,
                          expected="one of " + ", ".join(catalogue.ids) + suggest(s, catalogue.ids))
-    times = raw["time"].values.astype("datetime64[ns]")
-    if label == "start":
-        times = times + HOUR
-    n_s, n_t = len(ids), len(times)
-    # records in (site, time) order; the "line" of a record is its 1-based number
-    sites = np.repeat(ids.astype(object), n_t)
-    t = np.tile(times, n_s)
+    return squeezed, label
 
-    def where(i, problem, expected):
-        return InputError(f"{problem} (site {sites[i]!r}, time index {i % n_t})", file=path,
-                          column="time", value=str(t[i])[:19], expected=expected)
-    check_hours(sites, t, where, lambda i: f"time index {i % n_t}")
-    values, raw_units = {}, {}
+
+def _netcdf_units(raw, path):
+    """The units of each variable, checked (present, numeric, convertible)."""
+    raw_units = {}
     for name, (target, _, _) in MET_VARIABLES.items():
         if name not in raw:
             continue
@@ -216,29 +230,113 @@ def _netcdf_body(raw, path, catalogue):
         if unit is None:
             raise InputError("variable has no units attribute", file=path, column=name,
                              expected=f"a CF 'units' attribute convertible to {target}")
-        v = raw[name].transpose("site", "time").values
-        if not np.issubdtype(v.dtype, np.number):
+        if not np.issubdtype(raw[name].dtype, np.number):
             raise InputError("variable is not numeric", file=path, column=name,
-                             value=str(v.dtype), expected="numbers")
-        v = v.astype(float).reshape(-1)
-        if name == "cloud_cover" and str(unit).strip().lower() in ("okta", "oktas"):
-            values[name] = v / 8.0
-        else:
-            try:
-                u, _ = parse_unit(unit)
-                if name == "solar_radiation" and \
-                        u.dimensionality == ureg.parse_units("J/m**2").dimensionality:
-                    values[name] = convert_plain(v, unit, "J/m**2") / 3600.0
-                else:
-                    values[name] = convert_plain(v, unit, target)
-            except ValueError as exc:
-                raise InputError(f"unknown or dimensionally wrong unit ({exc})", file=path,
-                                 column=name, value=unit,
-                                 expected=f"a unit convertible to {target}") from None
+                             value=str(raw[name].dtype), expected="numbers")
+        try:
+            convert_met(np.zeros(1), str(unit), name, target)
+        except ValueError as exc:
+            raise InputError(f"unknown or dimensionally wrong unit ({exc})", file=path,
+                             column=name, value=unit,
+                             expected=f"a unit convertible to {target}") from None
         raw_units[name] = unit
-    lines = np.arange(n_s * n_t) + 1
-    ds, ledger = _assemble(values, sites, t, lines, path, catalogue, raw_units,
-                           empty_reason="all variables missing (NaN) in the record")
+    return raw_units
+
+
+def _netcdf_body(raw, path, catalogue):
+    from .ledger import CODED_ABOVE, CodedRows
+    from .metstore import MetStore, grid_rows, load_small
+    from .metvars import met_attrs
+    squeezed, label = _netcdf_layout(raw, path, catalogue)
+    ids = raw["site"].values.astype(str)
+    times = raw["time"].values.astype("datetime64[ns]")
+    if label == "start":
+        times = times + HOUR
+    n_s, n_t = len(ids), len(times)
+
+    def where(i, problem, expected):
+        return InputError(f"{problem} (site {str(ids[i // n_t])!r}, time index {i % n_t})", file=path,
+                          column="time", value=str(times[i % n_t])[:19], expected=expected)
+    if n_s and n_t:      # the hours are the same for every site: the first site's records
+        check_hours(np.repeat(ids[:1].astype(object), n_t), times, where,
+                    lambda i: f"time index {i % n_t}")
+        twice = np.flatnonzero(pd.Index(ids).duplicated())
+        if len(twice):
+            raise where(int(twice[0]) * n_t, "duplicate hourly timestamp",
+                        "one row per site and hour (also on time index 0)")
+    raw_units = _netcdf_units(raw, path)
+    names = list(raw_units)
+    if not n_s or not n_t:
+        raise InputError("no values in any row", file=path,
+                         expected="at least one hour with a value")
+    t_first = times.min()
+    n_grid = int((times.max() - t_first) // HOUR) + 1
+    ti_all = ((times - t_first) // HOUR).astype(np.int64)
+    store = MetStore(names, n_s, n_grid)
+    reason_codes = np.empty(n_s * n_t, np.int32)
+    rejected = np.empty(n_s * n_t, bool)
+    texts, gaps = {}, {}
+    kept_sites = np.zeros(n_s, bool)
+    lo_t, hi_t = n_grid, -1
+    step = max(1, NETCDF_GROUP_RECORDS // n_t)
+    for k0 in range(0, n_s, step):
+        k1 = min(n_s, k0 + step)
+        values = {}
+        for name in names:
+            target = MET_VARIABLES[name][0]
+            v = raw[name].isel(site=slice(k0, k1)).transpose("site", "time").values
+            values[name] = convert_met(v.astype(float).reshape(-1), str(raw_units[name]), name,
+                                       target)
+        sites = np.repeat(ids[k0:k1].astype(object), n_t)
+        t = np.tile(times, k1 - k0)
+        empty = np.ones(len(sites), bool)
+        for v in values.values():
+            empty &= np.isnan(v)
+        reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, raw_units)
+        reasons = np.asarray(reasons, dtype=object)
+        if empty.any():                     # joined on the empty records only
+            reasons[empty] = join_reasons([reasons[empty], np.full(
+                int(empty.sum()), "all variables missing (NaN) in the record", object)])
+        codes, uniq = pd.factorize(reasons)
+        for u in uniq:
+            texts.setdefault(u, len(texts))
+        reason_codes[k0 * n_t:k1 * n_t] = np.array([texts[u] for u in uniq], np.int32)[codes]
+        rejected[k0 * n_t:k1 * n_t] = empty
+        keep = ~empty
+        si = np.repeat(np.arange(k1 - k0), n_t)[keep]
+        ti = np.tile(ti_all, k1 - k0)[keep]
+        grids, present = grid_rows(values, keep, si, ti, k1 - k0, n_grid)
+        store.write(k0, grids, present)
+        has = present.any(axis=1)
+        kept_sites[k0:k1] = has
+        if keep.any():
+            lo_t, hi_t = min(lo_t, int(ti.min())), max(hi_t, int(ti.max()))
+        notes = metchecks.describe_gaps(xr.Dataset(
+            {"row_present": (("site", "time"), present[has])},
+            coords={"site": ids[k0:k1][has], "time": t_first + np.arange(n_grid) * HOUR}))
+        gaps.update(zip(ids[k0:k1][has], notes))
+        del values, grids, present
+    if not kept_sites.any():
+        store.remove()
+        raise InputError("no values in any row", file=path,
+                         expected="at least one hour with a value")
+    n = n_s * n_t
+    lines = np.arange(n) + 1
+    text_arr = np.array(list(texts), dtype=object)
+    if n <= CODED_ABOVE:
+        ledger = Ledger.for_rows(path, lines, np.repeat(ids.astype(object), n_t),
+                                 text_arr[reason_codes], rejected)
+    else:
+        ledger = Ledger.for_codes(CodedRows(str(path), lines,
+                                            np.repeat(np.arange(n_s, dtype=np.int32), n_t),
+                                            ids.astype(object), reason_codes, text_arr, rejected))
+    pos = {s: i for i, s in enumerate(ids)}
+    site_ids = [s for s in catalogue.ids if s in pos and kept_sites[pos[s]]]
+    ds = store.dataset(site_ids, t_first + np.arange(lo_t, hi_t + 1) * HOUR,
+                       met_attrs(names, path), site_index=np.array([pos[s] for s in site_ids]),
+                       time_slice=slice(lo_t, hi_t + 1))
+    ds = load_small(ds, store)
+    ledger.notes.extend(gaps[s] for s in site_ids)
     if squeezed:
         ledger.notes.append(f"{path.name}: single-level dimension dropped from "
                             + ", ".join(squeezed))

@@ -100,3 +100,21 @@ def site_time_dataset(values: dict, keep, site_ids, si, tk, path, variables=MET_
                          {"long_name": "an input row exists for this hour"})
     ds.attrs["source_file"] = str(path)
     return ds
+
+
+def met_attrs(names, path, variables=MET_VARIABLES) -> dict:
+    """Attributes of a met store's variables, as :func:`site_time_dataset` sets them.
+
+    Returns
+    -------
+    dict
+        name -> {"units", "long_name"}, ``row_present`` -> {"long_name"} and
+        ``source_file`` -> the file's path as text.
+    """
+    out = {}
+    for name in names:
+        unit, _, long_name = variables[name]
+        out[name] = {"units": _UNITS_OUT[unit], "long_name": long_name}
+    out["row_present"] = {"long_name": "an input row exists for this hour"}
+    out["source_file"] = str(path)
+    return out
