@@ -6,8 +6,12 @@ Plain numpy ufuncs (``np.log``, ``np.minimum``) already keep the input's type
 """
 from __future__ import annotations
 
+import threading
+
 import numpy as np
 import xarray as xr
+
+from ..threads import run_each, threads_here
 
 
 def is_xarray(*args) -> bool:
@@ -42,6 +46,10 @@ def asfloat(x):
 #: Elements per block of :func:`blockwise` (256 kB per float array: the work arrays
 #: of a block stay in the processor's cache).
 BLOCK_ELEMENTS = 32768
+
+#: Smallest block when the blocks are cut smaller for several threads
+#: (:func:`parallel_block_size`). [-]
+MIN_PARALLEL_BLOCK = 4096
 
 
 def plain_numpy(*args) -> bool:
@@ -105,21 +113,39 @@ def block_of(a, block):
     return a[tuple(index)]
 
 
+def parallel_block_size(n, size=None):
+    """Elements per block of `n` elements for the threads of this call [-].
+
+    :data:`BLOCK_ELEMENTS` (or `size`) on one thread; on several
+    (:func:`workbench.threads.threads_here`), smaller blocks when needed so that each
+    thread gets about two of them, but never below :data:`MIN_PARALLEL_BLOCK`.
+    """
+    size = size or BLOCK_ELEMENTS
+    n_threads = threads_here()
+    if n_threads <= 1:
+        return size
+    return min(size, max(MIN_PARALLEL_BLOCK, -(-n // (2 * n_threads))))
+
+
 def blockwise(func, *args, size=None):
     """``func(*args)`` of an element-wise function, evaluated in cache-sized blocks.
 
     The same numbers as one call on the whole arrays (each element sees the same
     operations); faster on large arrays, whose temporaries then stay in the
-    processor's cache.  Numpy input only.
+    processor's cache.  The blocks run on the threads of :mod:`workbench.threads`
+    (numpy releases the interpreter lock in its loops); the numbers do not depend
+    on the number of threads.  Numpy input only.
 
     Parameters
     ----------
     func : callable
         Element-wise: numpy arrays in, one numpy array (or a tuple of them) out.
+        Called from several threads at once: it must not change shared state.
     *args : array_like
         Broadcastable against each other.
     size : int, optional
-        Elements per block (default :data:`BLOCK_ELEMENTS`).
+        Elements per block (default :data:`BLOCK_ELEMENTS`, smaller on several
+        threads: :func:`parallel_block_size`).
 
     Returns
     -------
@@ -132,17 +158,25 @@ def blockwise(func, *args, size=None):
     """
     arrays = [np.asarray(a) for a in args]
     shape = np.broadcast_shapes(*(a.shape for a in arrays))
-    blocks = list(block_slices(shape, size))
+    n = int(np.prod(shape)) if shape else 1
+    blocks = list(block_slices(shape, parallel_block_size(n, size)))
     if len(blocks) == 1:
         return func(*args)
     arrays = [aligned(a, len(shape)) for a in arrays]
-    out = None
-    for block in blocks:
+    out = []  # [tuple of output arrays], made by the first block to finish
+    single = []
+    lock = threading.Lock()
+
+    def task(i):
+        block = blocks[i]
         part = func(*(block_of(a, block) for a in arrays))
-        single = not isinstance(part, tuple)
-        parts = (part,) if single else part
-        if out is None:
-            out = tuple(np.empty(shape, dtype=np.asarray(p).dtype) for p in parts)
-        for o, p in zip(out, parts):
+        parts = part if isinstance(part, tuple) else (part,)
+        with lock:
+            if not out:
+                single.append(not isinstance(part, tuple))
+                out.append(tuple(np.empty(shape, dtype=np.asarray(p).dtype) for p in parts))
+        for o, p in zip(out[0], parts):
             o[block] = p
-    return out[0] if single else out
+
+    run_each(task, len(blocks))
+    return out[0][0] if single[0] else out[0]

@@ -1,0 +1,68 @@
+"""The engine's numbers do not depend on its number of threads (issue 11, item 4).
+
+A demo site-year (ridge 2021, all its receptors, every default gas and particle)
+through ``velocities`` on 1, 2 and 3 threads (workbench.set_threads): every output
+variable equal bit for bit.  With 2 and more threads the blocks are cut smaller (a
+site-year fits one block on one thread), so the comparison also covers other
+block boundaries.  Nothing here is timed.
+"""
+import warnings
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+import workbench
+from workbench.drydep import DryOptions, velocities
+from workbench.surface import _array
+
+DEMO = Path(__file__).resolve().parents[2] / "demo_data"
+
+
+@pytest.fixture(scope="module")
+def site_year():
+    from workbench.io import read_met, read_sites
+    cat = read_sites(DEMO / "sites.toml")
+    met, _ = read_met(DEMO / "met.csv.gz", cat)
+    met = met.sel(site=["ridge"]).sel(time=slice("2021-01-01T01:00", "2022-01-01T00:00")).load()
+    return met, cat.surfaces().sel(site=["ridge"])
+
+
+@pytest.fixture(autouse=True)
+def _reset():
+    yield
+    workbench.set_threads(None)
+
+
+@pytest.mark.parametrize("scheme", ["wesely1989", "zhang2003"])
+def test_one_two_three_threads_give_the_same_numbers(site_year, scheme):
+    met, surf = site_year
+    opt = DryOptions(gas_scheme=scheme)
+    runs = {}
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        for n in (1, 2, 3):
+            workbench.set_threads(n)
+            runs[n] = velocities(met, surf, opt)
+    cells = met.sizes["time"] * surf.sizes["receptor"]
+    workbench.set_threads(1)
+    on_one = len(list(_array.block_slices((1, surf.sizes["receptor"], met.sizes["time"]))))
+    workbench.set_threads(3)
+    assert len(list(_array.block_slices((1, surf.sizes["receptor"], met.sizes["time"]),
+                                        _array.parallel_block_size(cells)))) >= 6 > on_one
+    one = runs[1]
+    for n in (2, 3):
+        assert list(runs[n].data_vars) == list(one.data_vars)
+        for name in one.data_vars:
+            np.testing.assert_array_equal(runs[n][name].values, one[name].values,
+                                          err_msg=f"{name}, {n} threads")
+            assert runs[n][name].attrs == one[name].attrs
+
+
+def test_parallel_block_size():
+    workbench.set_threads(1)
+    assert _array.parallel_block_size(10 ** 6) == _array.BLOCK_ELEMENTS
+    workbench.set_threads(2)
+    assert _array.parallel_block_size(10 ** 6) == _array.BLOCK_ELEMENTS
+    assert _array.parallel_block_size(26280) == 6570            # two blocks per thread
+    assert _array.parallel_block_size(5000) == _array.MIN_PARALLEL_BLOCK
