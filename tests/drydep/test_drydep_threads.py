@@ -66,3 +66,22 @@ def test_parallel_block_size():
     assert _array.parallel_block_size(10 ** 6) == _array.BLOCK_ELEMENTS
     assert _array.parallel_block_size(26280) == 6570            # two blocks per thread
     assert _array.parallel_block_size(5000) == _array.MIN_PARALLEL_BLOCK
+
+
+def test_dask_tasks_run_their_blocks_on_one_thread(site_year, monkeypatch):
+    """Chunks computed by dask's threads (as in a worker) never start the engine's pool,
+    and give the in-memory numbers."""
+    dask = pytest.importorskip("dask")
+    import workbench.threads as T
+    met, surf = site_year
+    met = met.isel(time=slice(0, 24 * 60))
+    opt = DryOptions(gases=("SO2",), particles=("pSO4",), components=False)
+    workbench.set_threads(3)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        want = velocities(met, surf, opt)
+        monkeypatch.setattr(T, "_get_pool", lambda n: pytest.fail("pool used in a dask task"))
+        with dask.config.set(scheduler="threads"):
+            got = velocities(met.chunk({"time": 24 * 30}), surf, opt).compute()
+    for name in ("vd_SO2", "vd_pSO4", "ra"):
+        np.testing.assert_array_equal(got[name].values, want[name].values, err_msg=name)
