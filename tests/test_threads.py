@@ -99,3 +99,11 @@ def test_outside_the_main_thread_one_thread_and_no_pool(monkeypatch):
     t.join()
     assert got == {"here": 1, "names": {"not-main"}}
     assert T.threads_here() == 4       # the main thread keeps the setting
+
+
+def test_run_each_max_threads_keeps_the_caller(monkeypatch):
+    T.set_threads(4)
+    monkeypatch.setattr(T, "_get_pool", lambda n: pytest.fail("pool used with max_threads=1"))
+    names = []
+    T.run_each(lambda i: names.append(threading.current_thread().name), 9, max_threads=1)
+    assert names == [threading.current_thread().name] * 9

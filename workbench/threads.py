@@ -119,7 +119,7 @@ def _get_pool(workers: int) -> ThreadPoolExecutor:
         return _pool
 
 
-def run_each(task, n_items: int) -> None:
+def run_each(task, n_items: int, max_threads: int | None = None) -> None:
     """``task(i)`` for ``i`` in ``range(n_items)``, on up to :func:`threads_here` threads.
 
     The calling thread takes part; the items are handed out one at a time, in order,
@@ -134,8 +134,10 @@ def run_each(task, n_items: int) -> None:
         ``task(i)`` for one item ``i`` (an int).
     n_items : int
         Number of items.
+    max_threads : int, optional
+        At most this many threads (default :func:`threads_here`).
     """
-    n = min(threads_here(), n_items)
+    n = min(threads_here(), n_items, max_threads or n_items)
     if n <= 1:
         for i in range(n_items):
             task(i)

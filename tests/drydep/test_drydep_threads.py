@@ -29,7 +29,8 @@ def site_year():
 
 
 @pytest.fixture(autouse=True)
-def _reset():
+def _reset(monkeypatch):
+    monkeypatch.setattr(_array, "MIN_PARALLEL_ELEMENTS", 1000)
     yield
     workbench.set_threads(None)
 
@@ -59,13 +60,17 @@ def test_one_two_three_threads_give_the_same_numbers(site_year, scheme):
             assert runs[n][name].attrs == one[name].attrs
 
 
-def test_parallel_block_size():
+def test_parallel_block_size(monkeypatch):
     workbench.set_threads(1)
     assert _array.parallel_block_size(10 ** 6) == _array.BLOCK_ELEMENTS
     workbench.set_threads(2)
     assert _array.parallel_block_size(10 ** 6) == _array.BLOCK_ELEMENTS
     assert _array.parallel_block_size(26280) == 6570            # two blocks per thread
     assert _array.parallel_block_size(5000) == _array.MIN_PARALLEL_BLOCK
+    monkeypatch.setattr(_array, "MIN_PARALLEL_ELEMENTS", 4 * _array.BLOCK_ELEMENTS)
+    assert _array.threads_for(26280) == 1                        # an app's site-year
+    assert _array.parallel_block_size(26280) == _array.BLOCK_ELEMENTS
+    assert _array.threads_for(10 ** 6) == 2
 
 
 def test_dask_tasks_run_their_blocks_on_one_thread(site_year, monkeypatch):

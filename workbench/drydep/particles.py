@@ -35,7 +35,8 @@ import numpy as np
 import xarray as xr
 
 from ..constants import BOLTZMANN, GRAVITY, WATER_DENSITY
-from ..surface._array import aligned, block_of, block_slices, is_xarray, parallel_block_size
+from ..surface._array import (aligned, block_of, block_slices, is_xarray, parallel_block_size,
+                              threads_for)
 from ..threads import run_each
 from ..surface.air import dynamic_viscosity, mean_free_path
 # the constants, table and nodes of the scheme live in zhang_tables (shared with the
@@ -445,7 +446,8 @@ def _numpy_velocities(modes, arrays, land_use, nodes):
     shape = np.broadcast_shapes(*(a.shape for a in arrays),
                                 () if isinstance(land, str) else land.shape)
     n = int(np.prod(shape)) if shape else 1
-    blocks = list(block_slices(shape, parallel_block_size(n, BLOCK_ELEMENTS)))
+    n_threads = threads_for(n)
+    blocks = list(block_slices(shape, parallel_block_size(n, BLOCK_ELEMENTS, n_threads)))
     if len(blocks) == 1:
         surface = ZhangSurface(*arrays[:5], land, *arrays[5:])
         return [surface.mass_weighted(mode, nodes) for mode in modes]
@@ -460,6 +462,6 @@ def _numpy_velocities(modes, arrays, land_use, nodes):
                                else block_of(land, block), *part[5:])
         for vd, mode in zip(out, modes):
             vd[block] = surface.mass_weighted(mode, nodes)
-    run_each(task, len(blocks))  # on the engine's threads (workbench.threads)
+    run_each(task, len(blocks), n_threads)  # the engine's threads (workbench.threads)
     return out
 

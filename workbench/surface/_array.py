@@ -51,6 +51,10 @@ BLOCK_ELEMENTS = 32768
 #: (:func:`parallel_block_size`). [-]
 MIN_PARALLEL_BLOCK = 4096
 
+#: Steps on fewer elements run on the calling thread only (:func:`threads_for`):
+#: four blocks, 1 MB per float array (a site-year of 15 receptors). [-]
+MIN_PARALLEL_ELEMENTS = 4 * BLOCK_ELEMENTS
+
 
 def plain_numpy(*args) -> bool:
     """True when no argument is an xarray object or a dask (chunked) array."""
@@ -113,15 +117,26 @@ def block_of(a, block):
     return a[tuple(index)]
 
 
-def parallel_block_size(n, size=None):
-    """Elements per block of `n` elements for the threads of this call [-].
+def threads_for(n):
+    """Threads for an element-wise step on `n` elements [-].
 
-    :data:`BLOCK_ELEMENTS` (or `size`) on one thread; on several
-    (:func:`workbench.threads.threads_here`), smaller blocks when needed so that each
-    thread gets about two of them, but never below :data:`MIN_PARALLEL_BLOCK`.
+    :func:`workbench.threads.threads_here`, but 1 below
+    :data:`MIN_PARALLEL_ELEMENTS`: a site-year of the apps stays on the calling
+    thread, where handing its few blocks to other threads would gain little and, on a
+    busy machine, could wait for a thread that has no core.
+    """
+    return 1 if n < MIN_PARALLEL_ELEMENTS else threads_here()
+
+
+def parallel_block_size(n, size=None, n_threads=None):
+    """Elements per block of `n` elements on `n_threads` threads [-].
+
+    :data:`BLOCK_ELEMENTS` (or `size`) on one thread; on several (default
+    :func:`threads_for`), smaller blocks when needed so that each thread gets about
+    two of them, but never below :data:`MIN_PARALLEL_BLOCK`.
     """
     size = size or BLOCK_ELEMENTS
-    n_threads = threads_here()
+    n_threads = threads_for(n) if n_threads is None else n_threads
     if n_threads <= 1:
         return size
     return min(size, max(MIN_PARALLEL_BLOCK, -(-n // (2 * n_threads))))
@@ -159,7 +174,8 @@ def blockwise(func, *args, size=None):
     arrays = [np.asarray(a) for a in args]
     shape = np.broadcast_shapes(*(a.shape for a in arrays))
     n = int(np.prod(shape)) if shape else 1
-    blocks = list(block_slices(shape, parallel_block_size(n, size)))
+    n_threads = threads_for(n)
+    blocks = list(block_slices(shape, parallel_block_size(n, size, n_threads)))
     if len(blocks) == 1:
         return func(*args)
     arrays = [aligned(a, len(shape)) for a in arrays]
@@ -178,5 +194,5 @@ def blockwise(func, *args, size=None):
         for o, p in zip(out[0], parts):
             o[block] = p
 
-    run_each(task, len(blocks))
+    run_each(task, len(blocks), n_threads)
     return out[0][0] if single[0] else out[0]
