@@ -52,7 +52,8 @@ BLOCK_ELEMENTS = 32768
 MIN_PARALLEL_BLOCK = 4096
 
 #: Steps on fewer elements run on the calling thread only (:func:`threads_for`):
-#: four blocks, 1 MB per float array (a site-year of 15 receptors). [-]
+#: four blocks, 1 MB per float array (a site-year of 15 receptors and more runs on
+#: threads). [-]
 MIN_PARALLEL_ELEMENTS = 4 * BLOCK_ELEMENTS
 
 
