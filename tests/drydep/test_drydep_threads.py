@@ -31,6 +31,7 @@ def site_year():
 @pytest.fixture(autouse=True)
 def _reset(monkeypatch):
     monkeypatch.setattr(_array, "MIN_PARALLEL_ELEMENTS", 1000)
+    monkeypatch.setattr(_array, "THREAD_BLOCK_ELEMENTS", 5000)
     yield
     workbench.set_threads(None)
 
@@ -46,11 +47,11 @@ def test_one_two_three_threads_give_the_same_numbers(site_year, scheme):
             workbench.set_threads(n)
             runs[n] = velocities(met, surf, opt)
     cells = met.sizes["time"] * surf.sizes["receptor"]
-    workbench.set_threads(1)
-    on_one = len(list(_array.block_slices((1, surf.sizes["receptor"], met.sizes["time"]))))
+    shape = (1, surf.sizes["receptor"], met.sizes["time"])
+    on_one = len(list(_array.block_slices(shape, _array.block_size(1))))
+    assert len(list(_array.block_slices(shape, _array.block_size(3)))) >= 6 > on_one
     workbench.set_threads(3)
-    assert len(list(_array.block_slices((1, surf.sizes["receptor"], met.sizes["time"]),
-                                        _array.parallel_block_size(cells)))) >= 6 > on_one
+    assert _array.threads_for(cells) == 3
     one = runs[1]
     for n in (2, 3):
         assert list(runs[n].data_vars) == list(one.data_vars)
@@ -60,17 +61,16 @@ def test_one_two_three_threads_give_the_same_numbers(site_year, scheme):
             assert runs[n][name].attrs == one[name].attrs
 
 
-def test_parallel_block_size(monkeypatch):
-    workbench.set_threads(1)
-    assert _array.parallel_block_size(10 ** 6) == _array.BLOCK_ELEMENTS
+def test_block_size_and_threads_for(monkeypatch):
+    monkeypatch.undo()  # the package's sizes
     workbench.set_threads(2)
-    assert _array.parallel_block_size(10 ** 6) == _array.BLOCK_ELEMENTS
-    assert _array.parallel_block_size(26280) == 6570            # two blocks per thread
-    assert _array.parallel_block_size(5000) == _array.MIN_PARALLEL_BLOCK
-    monkeypatch.setattr(_array, "MIN_PARALLEL_ELEMENTS", 4 * _array.BLOCK_ELEMENTS)
-    assert _array.threads_for(26280) == 1                        # an app's site-year
-    assert _array.parallel_block_size(26280) == _array.BLOCK_ELEMENTS
-    assert _array.threads_for(10 ** 6) == 2
+    assert _array.block_size(1) == _array.BLOCK_ELEMENTS
+    assert _array.block_size(1, size=700) == 700
+    assert _array.block_size(2) == _array.THREAD_BLOCK_ELEMENTS > _array.BLOCK_ELEMENTS
+    assert _array.threads_for(7 * 8760) == 1                     # an app's site-year
+    assert _array.threads_for(100 * 3 * 8760) == 2               # a network
+    workbench.set_threads(1)
+    assert _array.threads_for(100 * 3 * 8760) == 1
 
 
 def test_dask_tasks_run_their_blocks_on_one_thread(site_year, monkeypatch):

@@ -35,7 +35,7 @@ import numpy as np
 import xarray as xr
 
 from ..constants import BOLTZMANN, GRAVITY, WATER_DENSITY
-from ..surface._array import (aligned, block_of, block_slices, is_xarray, parallel_block_size,
+from ..surface._array import (aligned, block_of, block_size, block_slices, is_xarray,
                               threads_for)
 from ..threads import run_each
 from ..surface.air import dynamic_viscosity, mean_free_path
@@ -447,7 +447,7 @@ def _numpy_velocities(modes, arrays, land_use, nodes):
                                 () if isinstance(land, str) else land.shape)
     n = int(np.prod(shape)) if shape else 1
     n_threads = threads_for(n)
-    blocks = list(block_slices(shape, parallel_block_size(n, BLOCK_ELEMENTS, n_threads)))
+    blocks = list(block_slices(shape, block_size(n_threads, BLOCK_ELEMENTS)))
     if len(blocks) == 1:
         surface = ZhangSurface(*arrays[:5], land, *arrays[5:])
         return [surface.mass_weighted(mode, nodes) for mode in modes]

@@ -47,14 +47,16 @@ def asfloat(x):
 #: of a block stay in the processor's cache).
 BLOCK_ELEMENTS = 32768
 
-#: Smallest block when the blocks are cut smaller for several threads
-#: (:func:`parallel_block_size`). [-]
-MIN_PARALLEL_BLOCK = 4096
+#: Elements per block when the blocks run on several threads (1 MB per float array).
+#: Larger than :data:`BLOCK_ELEMENTS`: with blocks of that size each numpy call lasts
+#: some 10-30 us, and handing the interpreter lock from thread to thread at every call
+#: took as long as the calls (two threads no faster than one, measured); four times
+#: larger blocks cost one thread about 3 % and gave two threads 1.4-1.7x. [-]
+THREAD_BLOCK_ELEMENTS = 4 * BLOCK_ELEMENTS
 
 #: Steps on fewer elements run on the calling thread only (:func:`threads_for`):
-#: four blocks, 1 MB per float array (a site-year of 15 receptors and more runs on
-#: threads). [-]
-MIN_PARALLEL_ELEMENTS = 4 * BLOCK_ELEMENTS
+#: two blocks of :data:`THREAD_BLOCK_ELEMENTS` (a site-year of 30 receptors). [-]
+MIN_PARALLEL_ELEMENTS = 2 * THREAD_BLOCK_ELEMENTS
 
 
 def plain_numpy(*args) -> bool:
@@ -129,18 +131,13 @@ def threads_for(n):
     return 1 if n < MIN_PARALLEL_ELEMENTS else threads_here()
 
 
-def parallel_block_size(n, size=None, n_threads=None):
-    """Elements per block of `n` elements on `n_threads` threads [-].
+def block_size(n_threads, size=None):
+    """Elements per block on `n_threads` threads [-].
 
-    :data:`BLOCK_ELEMENTS` (or `size`) on one thread; on several (default
-    :func:`threads_for`), smaller blocks when needed so that each thread gets about
-    two of them, but never below :data:`MIN_PARALLEL_BLOCK`.
+    `size` (default :data:`BLOCK_ELEMENTS`, sized for the processor's cache) on one
+    thread, :data:`THREAD_BLOCK_ELEMENTS` on several.
     """
-    size = size or BLOCK_ELEMENTS
-    n_threads = threads_for(n) if n_threads is None else n_threads
-    if n_threads <= 1:
-        return size
-    return min(size, max(MIN_PARALLEL_BLOCK, -(-n // (2 * n_threads))))
+    return (size or BLOCK_ELEMENTS) if n_threads <= 1 else THREAD_BLOCK_ELEMENTS
 
 
 def blockwise(func, *args, size=None):
@@ -160,8 +157,8 @@ def blockwise(func, *args, size=None):
     *args : array_like
         Broadcastable against each other.
     size : int, optional
-        Elements per block (default :data:`BLOCK_ELEMENTS`, smaller on several
-        threads: :func:`parallel_block_size`).
+        Elements per block on one thread (default :data:`BLOCK_ELEMENTS`; on
+        several, :data:`THREAD_BLOCK_ELEMENTS`: :func:`block_size`).
 
     Returns
     -------
@@ -176,7 +173,7 @@ def blockwise(func, *args, size=None):
     shape = np.broadcast_shapes(*(a.shape for a in arrays))
     n = int(np.prod(shape)) if shape else 1
     n_threads = threads_for(n)
-    blocks = list(block_slices(shape, parallel_block_size(n, size, n_threads)))
+    blocks = list(block_slices(shape, block_size(n_threads, size)))
     if len(blocks) == 1:
         return func(*args)
     arrays = [aligned(a, len(shape)) for a in arrays]
