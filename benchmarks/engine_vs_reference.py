@@ -24,6 +24,14 @@ is compiled before it is timed; the scalar loop runs once on the first
 Printed: site-receptor-hours per second (and site-hours per second) of each, the
 ratios engine/scalar and engine/numba, and the load average of the machine before
 and after each size.  Nothing is asserted.
+
+The engine runs its cache-sized blocks on ``--threads`` threads (default: 1 and the
+engine's own setting, ``workbench.get_threads()``, i.e. ``WORKBENCH_THREADS`` or the
+usable cores up to 4); it is timed once per thread count (the first count's rates are
+the ``engine_*`` keys, every count's under ``engine_by_threads``).  The references
+run on one thread.  A threaded engine gains in wall time only (its CPU time adds up
+over the threads), and only when the machine has a free core: the CPU-time rates
+then tell the work per element, the wall rates the time a user waits.
 """
 from __future__ import annotations
 
@@ -67,10 +75,13 @@ def main(argv=None):
     ap.add_argument("--sizes", type=int, nargs="+", default=[1, 100], help="site-years")
     ap.add_argument("--scalar-sites", type=int, default=2)
     ap.add_argument("--repeat", type=int, default=3, help="runs of the engine and the kernel")
+    ap.add_argument("--threads", type=int, nargs="+", default=None,
+                    help="engine threads to time (default: 1 and workbench.get_threads())")
     ap.add_argument("--json", default=None)
     args = ap.parse_args(argv)
 
     import reference_chain as rc
+    import workbench
     from workbench.drydep import DryOptions, velocities
     from workbench.io import read_met, read_sites
 
@@ -95,21 +106,29 @@ def main(argv=None):
                        velocities(met.isel(time=slice(0, 48)), surf, opt))
     rc.run_numba(small)
     compile_s = time.perf_counter() - t
+    thread_counts = list(dict.fromkeys(args.threads or [1, workbench.get_threads()]))
     rows = []
     for n in args.sizes:
         m, s = site_years(met, surf, n)
         n_r = s.sizes["receptor"]
         cells = n * n_r * m.sizes["time"]
         load_before = os.getloadavg()
-        t, c = time.perf_counter(), time.process_time()
-        eng = velocities(m, s, opt)
-        t_first = t_eng = time.perf_counter() - t
-        c_eng = time.process_time() - c
-        for _ in range(args.repeat - 1):
+        by_threads = {}
+        for n_threads in thread_counts:
+            workbench.set_threads(n_threads)
             t, c = time.perf_counter(), time.process_time()
-            velocities(m, s, opt)
-            t_eng = min(t_eng, time.perf_counter() - t)
-            c_eng = min(c_eng, time.process_time() - c)
+            eng = velocities(m, s, opt)
+            t_first = t_eng = time.perf_counter() - t
+            c_eng = time.process_time() - c
+            for _ in range(args.repeat - 1):
+                del eng
+                t, c = time.perf_counter(), time.process_time()
+                eng = velocities(m, s, opt)
+                t_eng = min(t_eng, time.perf_counter() - t)
+                c_eng = min(c_eng, time.process_time() - c)
+            by_threads[n_threads] = (t_eng, c_eng, t_first)
+        workbench.set_threads(None)
+        t_eng, c_eng, t_first = by_threads[thread_counts[0]]
         prep = rc.prepare(m, s, opt, eng)
         del eng
         nw = rc.node_work(prep[4])
@@ -136,6 +155,14 @@ def main(argv=None):
                "scalar_cells_per_s": cells_sc / t_sc, "scalar_sites_timed": k,
                "engine_s": t_eng, "numba_s": t_nb, "scalar_s": t_sc,
                "engine_cpu_s": c_eng, "numba_cpu_s": c_nb, "scalar_cpu_s": c_sc}
+        row["engine_by_threads"] = {
+            nt: {"threads": nt, "cells_per_s": cells / w, "cpu_cells_per_s": cells / cp,
+                "first_call_cells_per_s": cells / f, "over_scalar": (cells / w) / row[
+                    "scalar_cells_per_s"], "over_numba": t_nb / w,
+                "cpu_over_scalar": (c_sc / cells_sc) / (cp / cells), "cpu_over_numba": c_nb / cp}
+            for nt, (w, cp, f) in by_threads.items()}
+        row["engine_threads"] = thread_counts[0]
+        row["usable_cores"] = workbench.threads.usable_cores()
         row["engine_over_scalar"] = row["engine_cells_per_s"] / row["scalar_cells_per_s"]
         row["engine_over_numba"] = row["engine_cells_per_s"] / row["numba_cells_per_s"]
         # the same ratios on CPU time (steadier than wall time on a shared machine)
@@ -154,6 +181,11 @@ def main(argv=None):
               f"scalar {cells_sc / c_sc / 1e6:.4f} M/s; engine/scalar "
               f"{row['cpu_engine_over_scalar']:.1f} x, engine/numba "
               f"{row['cpu_engine_over_numba']:.3f} x")
+        for nt, e in row["engine_by_threads"].items():
+            print(f"  engine on {nt} thread(s): wall {e['cells_per_s'] / 1e6:.4f} M/s "
+                  f"(x{e['over_scalar']:.1f} scalar, x{e['over_numba']:.3f} numba), CPU time "
+                  f"{e['cpu_cells_per_s'] / 1e6:.4f} M/s (x{e['cpu_over_scalar']:.1f}, "
+                  f"x{e['cpu_over_numba']:.3f}); first call {e['first_call_cells_per_s'] / 1e6:.4f}")
         print(f"  load average before {' '.join(f'{x:.2f}' for x in load_before)}, after "
               f"{' '.join(f'{x:.2f}' for x in row['load_average_after'])}")
         print(f"  engine/scalar {row['engine_over_scalar']:.1f} x   "

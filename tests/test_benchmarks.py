@@ -130,8 +130,10 @@ def test_engine_vs_reference_benchmark_runs(tmp_path, capsys):
     bench = _load("engine_vs_reference")
     data = write_demo_subset(tmp_path / "d", ("ridge",), 2021, 2021).parent
     out = bench.main(["--data", str(data), "--days", "2", "--sizes", "1", "2",
-                      "--scalar-sites", "1", "--json", str(tmp_path / "r.json")])
+                      "--scalar-sites", "1", "--threads", "1", "2",
+                      "--json", str(tmp_path / "r.json")])
     assert [r["site_years"] for r in out["rows"]] == [1, 2]
+    assert all(sorted(r["engine_by_threads"]) == [1, 2] for r in out["rows"])
     assert all(r["engine_over_scalar"] > 0 and r["engine_over_numba"] > 0 for r in out["rows"])
     assert "engine/numba" in capsys.readouterr().out
     assert (tmp_path / "r.json").exists()

@@ -7,3 +7,6 @@ widgets.  Nothing in the core imports the I/O or UI layers.
 """
 
 __version__ = "0.1.0"
+
+# the one engine setting that changes no number: threads of the cache-sized blocks
+from .threads import get_threads, set_threads  # noqa: E402,F401

@@ -35,7 +35,9 @@ import numpy as np
 import xarray as xr
 
 from ..constants import BOLTZMANN, GRAVITY, WATER_DENSITY
-from ..surface._array import aligned, block_of, block_slices, is_xarray
+from ..surface._array import (aligned, block_of, block_size, block_slices, is_xarray,
+                              threads_for)
+from ..threads import run_each
 from ..surface.air import dynamic_viscosity, mean_free_path
 # the constants, table and nodes of the scheme live in zhang_tables (shared with the
 # implementation in particles_numpy, which this module imports: imports go one way);
@@ -443,18 +445,23 @@ def _numpy_velocities(modes, arrays, land_use, nodes):
     land = land_use if isinstance(land_use, str) else np.asarray(land_use, dtype=object)
     shape = np.broadcast_shapes(*(a.shape for a in arrays),
                                 () if isinstance(land, str) else land.shape)
-    blocks = list(block_slices(shape, BLOCK_ELEMENTS))
+    n = int(np.prod(shape)) if shape else 1
+    n_threads = threads_for(n)
+    blocks = list(block_slices(shape, block_size(n_threads, BLOCK_ELEMENTS)))
     if len(blocks) == 1:
         surface = ZhangSurface(*arrays[:5], land, *arrays[5:])
         return [surface.mass_weighted(mode, nodes) for mode in modes]
     arrays = [aligned(a, len(shape)) for a in arrays]
     land = land if isinstance(land, str) else aligned(land, len(shape))
     out = [np.empty(shape) for _ in modes]
-    for block in blocks:  # element-wise: the same numbers as one call on everything
+
+    def task(i):  # element-wise: the same numbers as one call on everything
+        block = blocks[i]
         part = [block_of(a, block) for a in arrays]
         surface = ZhangSurface(*part[:5], land if isinstance(land, str)
                                else block_of(land, block), *part[5:])
         for vd, mode in zip(out, modes):
             vd[block] = surface.mass_weighted(mode, nodes)
+    run_each(task, len(blocks), n_threads)  # the engine's threads (workbench.threads)
     return out
 
