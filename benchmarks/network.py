@@ -46,8 +46,8 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "demo_data"
 #: Estimated peak memory: a base and a share per site-year [MB] (runs in blocks of sites
-#: of 2026-12-02: about 0.5 GB at 10 site-years, 1.3 GB at 1,000; the whole run of
-#: 2026-12-01 took 56 MB per site-year).
+#: of 2026-12-02: about 0.5 GB at 10 site-years, 1.3 GB at 1,000 by ``ru_maxrss``, the
+#: run's own peak 0.76 GB; the whole run of 2026-12-01 took 56 MB per site-year).
 BASE_MB = 700.0
 MB_PER_SITE_YEAR = 2.0
 FIRST_YEAR = 2016
