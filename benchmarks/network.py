@@ -16,8 +16,11 @@ Each size runs ``workbench run SCENARIO --out DIR --quiet`` end to end (reading,
 screening, velocities, budget, writing the run folder) in a fresh Python process,
 which reports its wall time (from the start of the command, imports excluded), its CPU
 time (user + system, imports included: on a shared machine the steadier number) and its
-peak resident memory (``resource.getrusage(RUSAGE_SELF).ru_maxrss``), with the load
-average of the machine before and after the run.  One run per size: timings of a
+peak resident memory, with the load average of the machine before and after the run.
+The peak is the run's own high-water mark (``VmHWM``, per phase, see :class:`_Phases`),
+not ``ru_maxrss``: on Linux a child started by fork + exec inherits in ``ru_maxrss`` the
+parent's peak at the fork, here the generated inputs (``ru_maxrss`` is printed beside it).
+The phase in which the peak was reached is printed ("peak reached in").  One run per size: timings of a
 loaded machine are only indicative.  Sizes above ``--max`` (default 1000) are reported
 "not run"; a size whose estimated memory (:data:`BASE_MB` + :data:`MB_PER_SITE_YEAR`
 per site-year) exceeds 80 % of the available memory is also not run.  A network of more
@@ -43,8 +46,8 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "demo_data"
 #: Estimated peak memory: a base and a share per site-year [MB] (runs in blocks of sites
-#: of 2026-12-02: about 0.5 GB at 10 site-years, 1.3 GB at 1,000; the whole run of
-#: 2026-12-01 took 56 MB per site-year).
+#: of 2026-12-02: about 0.5 GB at 10 site-years, 1.3 GB at 1,000 by ``ru_maxrss``, the
+#: run's own peak 0.76 GB; the whole run of 2026-12-01 took 56 MB per site-year).
 BASE_MB = 700.0
 MB_PER_SITE_YEAR = 2.0
 FIRST_YEAR = 2016
@@ -164,11 +167,18 @@ def child(scenario, out_dir, extra=()):
     wall = time.perf_counter() - t
     use = resource.getrusage(resource.RUSAGE_SELF)
     kids = resource.getrusage(resource.RUSAGE_CHILDREN)
+    # ru_maxrss of a child started by fork + exec keeps the parent's peak at the fork (Linux
+    # carries the old address space's high-water mark over exec): with the inputs of
+    # 1,000 site-years generated in the parent, that was the parent's 1.18 GB, not the
+    # run's.  The run's own peak is the largest per-phase high-water mark (VmHWM).
+    own = phases.peak_mb if phases.hwm else None
     print(json.dumps({"exit_code": code, "wall_s": wall, "cpu_s": use.ru_utime + use.ru_stime,
-                      "peak_rss_mb": use.ru_maxrss / 1024.0,
+                      "peak_rss_mb": own if own is not None else use.ru_maxrss / 1024.0,
+                      "ru_maxrss_mb": use.ru_maxrss / 1024.0,
                       "children_cpu_s": kids.ru_utime + kids.ru_stime,
                       "children_peak_rss_mb": kids.ru_maxrss / 1024.0, "run_args": list(extra),
-                      "phases": phases.table()}))
+                      "phases": phases.table(), "peak_phase": phases.peak_phase,
+                      "peak_phase_mb": round(phases.peak_mb, 1)}))
 
 
 class _Phases:
@@ -186,11 +196,15 @@ class _Phases:
         import workbench.writers as writers
         self.name, self.rows, self.t0 = "start", {}, time.perf_counter()
         self.page = os.sysconf("SC_PAGE_SIZE") if hasattr(os, "sysconf") else 4096
+        first = self._hwm_mb()             # imports and start-up, before any reset
+        self.hwm = first is not None and self._reset_hwm()
+        self.peak_phase, self.peak_mb = "start-up (imports)", first or 0.0
+        self._lock = threading.Lock()
         self._stop = threading.Event()
         self._thread = threading.Thread(target=self._sample, daemon=True)
         self._thread.start()
 
-        def wrap(mod, attr, label, progress_at=None):
+        def wrap(mod, attr, label, progress_at=None, prefix="write"):
             fn = getattr(mod, attr)
 
             def marked(*a, **k):
@@ -199,8 +213,8 @@ class _Phases:
                     kw, pos = progress_at
                     a = list(a)
                     inner = a[pos] if len(a) > pos else k.get(kw)
-                    say = (lambda text: (self.mark(f"write {text}"), inner(text))) if inner \
-                        else (lambda text: self.mark(f"write {text}"))
+                    say = (lambda text: (self.mark(f"{prefix} {text}"), inner(text))) if inner \
+                        else (lambda text: self.mark(f"{prefix} {text}"))
                     if len(a) > pos:
                         a[pos] = say
                     else:
@@ -210,17 +224,47 @@ class _Phases:
                 finally:
                     self.mark("other")
             setattr(mod, attr, marked)
-        wrap(preflight, "prepare", "read inputs")
+        wrap(preflight, "prepare", "read inputs", ("progress", 1), "read inputs:")
         wrap(blocks, "run_network", "compute (blocks)")
         wrap(comparison, "run", "compute (whole run)")
         wrap(writers, "write_files", "write run folder", ("progress", 4))
 
     def _rss_mb(self):
+        """The high-water mark of resident memory since the last phase change [MB]
+        (``VmHWM``, reset at each change by writing 5 to ``/proc/self/clear_refs``, so a
+        spike shorter than the sampling interval, or one while a thread holds the GIL,
+        still counts in its phase); the resident size where that cannot be reset."""
+        if self.hwm:
+            hwm = self._hwm_mb()
+            if hwm is not None:
+                return hwm
         try:
             with open("/proc/self/statm") as f:
                 return int(f.read().split()[1]) * self.page / 2**20
         except OSError:
             return None
+
+    @staticmethod
+    def _hwm_mb():
+        """``VmHWM`` of this process [MB], None where there is none."""
+        try:
+            with open("/proc/self/status") as f:
+                for ln in f:
+                    if ln.startswith("VmHWM:"):
+                        return int(ln.split()[1]) / 1024.0
+        except OSError:
+            pass
+        return None
+
+    @staticmethod
+    def _reset_hwm():
+        """Reset the high-water mark of resident memory (Linux >= 4.0); False if not."""
+        try:
+            with open("/proc/self/clear_refs", "w") as f:
+                f.write("5")
+            return True
+        except OSError:
+            return False
 
     def _sample(self):
         while not self._stop.is_set():
@@ -228,16 +272,22 @@ class _Phases:
             self._stop.wait(0.02)
 
     def mark(self, name):
-        rss, now = self._rss_mb(), time.perf_counter()
-        row = self.rows.setdefault(self.name, {"wall_s": 0.0, "peak_mb": 0.0, "_t": now})
-        if rss is not None:
-            row["peak_mb"] = max(row["peak_mb"], rss)
-        if name is not None and name != self.name:
-            row["wall_s"] += now - row.pop("_t")
-            self.name = name
-            self.rows.setdefault(name, {"wall_s": 0.0, "peak_mb": 0.0})["_t"] = now
+        with self._lock:
+            rss, now = self._rss_mb(), time.perf_counter()
+            row = self.rows.setdefault(self.name, {"wall_s": 0.0, "peak_mb": 0.0, "_t": now})
             if rss is not None:
-                self.rows[name]["peak_mb"] = max(self.rows[name]["peak_mb"], rss)
+                row["peak_mb"] = max(row["peak_mb"], rss)
+                if rss > self.peak_mb:
+                    self.peak_mb, self.peak_phase = rss, self.name
+            if name is not None and name != self.name:
+                row["wall_s"] += now - row.pop("_t")
+                self.name = name
+                self.rows.setdefault(name, {"wall_s": 0.0, "peak_mb": 0.0})["_t"] = now
+                if self.hwm:
+                    self._reset_hwm()
+                rss = self._rss_mb()
+                if rss is not None:
+                    self.rows[name]["peak_mb"] = max(self.rows[name]["peak_mb"], rss)
 
     def stop(self):
         self.mark("end")
@@ -360,7 +410,8 @@ def main(argv=None):
             if row["status"] == "run":
                 print(f"{size:5d} site-years ({row['sites']} sites x {row['years']} years): "
                       f"wall {row['wall_s']:7.1f} s, CPU {row['cpu_s']:7.1f} s, "
-                      f"peak RSS {row['peak_rss_mb']:7.0f} MB, "
+                      f"peak RSS {row['peak_rss_mb']:7.0f} MB "
+                      f"(ru_maxrss {row.get('ru_maxrss_mb', row['peak_rss_mb']):.0f}), "
                       f"exit {row['exit_code']}  (inputs generated in {row['generate_s']:.1f} s; "
                       f"load average {row['load_before']} -> {row['load_after']})"
                       + (f"; {' '.join(extra)}: workers' CPU {row['children_cpu_s']:.1f} s, "
@@ -369,6 +420,9 @@ def main(argv=None):
                 for name, ph in row.get("phases", {}).items():
                     print(f"      {name:<36} wall {ph['wall_s']:7.2f} s, peak RSS "
                           f"{ph['peak_mb']:7.0f} MB")
+                if row.get("peak_phase"):
+                    print(f"      peak reached in: {row['peak_phase']} "
+                          f"({row['peak_phase_mb']:.0f} MB)")
             else:
                 print(f"{size:5d} site-years: {row['status']}")
     finally:

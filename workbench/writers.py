@@ -15,6 +15,7 @@ import xarray as xr
 
 from . import __version__
 from .csvwrite import write_csv
+from .io.common import release_free_memory
 from .runfolder import (OutputError, RunFolder, atomic_write, check_out_dir,  # noqa: F401
                         os_error_message)
 from .tables import BUDGET_COLUMNS, summary_table
@@ -235,6 +236,7 @@ def write_files(result, study, scenario, folder: Path, progress=None, started=No
             names.extend(got)
         elif got is not None:
             names.append(name)
+        release_free_memory()            # the next step's arrays start from a trimmed heap
     return names
 
 
