@@ -336,3 +336,21 @@ def test_run_on_threads_keeps_block_order_and_raises_the_first_error():
     t.start()
     t.join()
     assert out == [1]
+
+
+def test_monthly_run_reuses_the_season_coverage_months(setup):
+    """The periods stage is keyed by its table: the monthly budget after the yearly one
+    (what a block runs) computes no monthly dry components or shares again."""
+    from workbench.pipeline import Study
+    study, args = setup
+    fresh = Study(study.inputs, study.site_overrides)
+    year = fresh.run(*args[:4], "year", *args[5:])
+    before = dict(fresh.graph.counts)
+    month = fresh.run(*args[:4], "month", *args[5:])
+    again = {k: fresh.graph.counts[k] - before.get(k, 0) for k in fresh.graph.counts}
+    assert again.get("dry_components", 0) == 0 and again.get("period_shares", 0) == 0
+    assert again.get("budget", 0) == 1
+    assert month.budget.sizes["period"] > year.budget.sizes["period"]
+    fresh.periods("month", args[5], args[6])       # the same table, asked otherwise
+    node = fresh._periods_node("month", np.datetime64(str(args[5])), args[6])
+    assert node.key == fresh._periods_node("month", str(args[5]), args[6]).key

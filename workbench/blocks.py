@@ -193,7 +193,8 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
     block_sites : int, optional
         Sites per block (default: all in one block).
     client : distributed.Client, optional
-        Run each block as a task on this cluster (default: in this process, in turn).
+        Run each block as a task on this cluster (default: in this process, up to
+        `threads` blocks at once).
     site_overrides : dict, optional
         The scenario's ``[sites.<id>]`` tables (default: the study's).
     keep_velocities : bool
