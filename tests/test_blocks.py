@@ -295,3 +295,62 @@ def test_blocks_assembled_in_place_as_concat_and_reorder(setup, reverse):
         xr.testing.assert_identical(got, ref)
         for v in ref.variables:
             assert got[v].dtype == ref[v].dtype and got[v].attrs == ref[v].attrs, (key, v)
+
+
+def test_blocks_on_threads_equal_blocks_in_turn(setup, whole):
+    """Two blocks at once on threads give the numbers of the blocks run one after the
+    other, bit for bit (each block is its own study; the reduction is in block order)."""
+    study, args = setup
+    one = run_blocks(study, *args, block_sites=1, threads=1)
+    two = run_blocks(study, *args, block_sites=1, threads=2)
+    assert_same(whole, two)
+    pd.testing.assert_frame_equal(one.table, two.table, rtol=0, atol=0)
+    xr.testing.assert_identical(one.budget, two.budget)
+    xr.testing.assert_identical(one.wet, two.wet)
+
+
+def test_run_on_threads_keeps_block_order_and_raises_the_first_error():
+    import threading
+    import time
+    from workbench.blocks import _run_on_threads, block_threads
+    said = []
+
+    def slow_first(i):               # block 0 finishes after block 1
+        time.sleep(0.2 if i == 0 else 0.0)
+        return (i, threading.current_thread().name)
+    done = [None] * 5
+    _run_on_threads(slow_first, done, 2, said.append)
+    assert [d[0] for d in done] == list(range(5))
+    assert all(d[1].startswith("workbench-block") for d in done)
+    assert sorted(said) == list(range(5))
+
+    def fails(i):
+        if i == 3:
+            raise RuntimeError("block 3 failed")
+        return i
+    with pytest.raises(RuntimeError, match="block 3 failed"):
+        _run_on_threads(fails, [None] * 6, 2, lambda i: None)
+    assert block_threads(1) == 1
+    out = []
+    t = threading.Thread(target=lambda: out.append(block_threads(10)))  # off the main thread
+    t.start()
+    t.join()
+    assert out == [1]
+
+
+def test_monthly_run_reuses_the_season_coverage_months(setup):
+    """The periods stage is keyed by its table: the monthly budget after the yearly one
+    (what a block runs) computes no monthly dry components or shares again."""
+    from workbench.pipeline import Study
+    study, args = setup
+    fresh = Study(study.inputs, study.site_overrides)
+    year = fresh.run(*args[:4], "year", *args[5:])
+    before = dict(fresh.graph.counts)
+    month = fresh.run(*args[:4], "month", *args[5:])
+    again = {k: fresh.graph.counts[k] - before.get(k, 0) for k in fresh.graph.counts}
+    assert again.get("dry_components", 0) == 0 and again.get("period_shares", 0) == 0
+    assert again.get("budget", 0) == 1
+    assert month.budget.sizes["period"] > year.budget.sizes["period"]
+    fresh.periods("month", args[5], args[6])       # the same table, asked otherwise
+    node = fresh._periods_node("month", np.datetime64(str(args[5])), args[6])
+    assert node.key == fresh._periods_node("month", str(args[5]), args[6]).key

@@ -182,3 +182,20 @@ def test_week_without_vd_adds_no_hours_and_a_month_without_vd_is_nan():
     out = to_periods(rows, cs, ["a"], periods, none["time"].values)
     assert np.isnan(out["deposition"].values[0, 0, 0])
     assert out["coverage"].values[0, 0] == pytest.approx(1.0)
+
+
+def test_cumulative_is_the_concatenated_cumsum():
+    """The in-place cumulative sum equals zero + np.cumsum of the finite values, bit for
+    bit (the same additions in the same order), for float64 and float32 input."""
+    import numpy as np
+    from workbench.dryflux import _cumulative
+    rng = np.random.default_rng(1)
+    for x in (rng.normal(size=(3, 4, 1000)), rng.normal(size=(2, 50)).astype(np.float32),
+              np.zeros((2, 0))):
+        if x.size:
+            x[..., ::7] = np.nan
+        z = np.zeros(x.shape[:-1] + (1,))
+        ref = np.concatenate([z, np.cumsum(np.where(np.isfinite(x), x, 0.0), axis=-1)], -1)
+        got = _cumulative(x)
+        assert got.dtype == ref.dtype == np.float64 and got.shape == ref.shape
+        np.testing.assert_array_equal(got, ref)

@@ -31,6 +31,7 @@ pairs only and are the same.
 from __future__ import annotations
 
 import dataclasses
+import itertools
 
 import numpy as np
 import pandas as pd
@@ -179,7 +180,7 @@ def start_client(workers=None, scheduler=None):
 def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_options=None,
                fixed_velocity=None, resolution="year", start=None, end=None, *,
                block_sites=None, client=None, site_overrides=None, keep_velocities=False,
-               progress=None) -> Result:
+               progress=None, threads=None) -> Result:
     """The budget of a network computed in blocks of sites (see the module text).
 
     Parameters
@@ -192,13 +193,19 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
     block_sites : int, optional
         Sites per block (default: all in one block).
     client : distributed.Client, optional
-        Run each block as a task on this cluster (default: in this process, in turn).
+        Run each block as a task on this cluster (default: in this process, up to
+        `threads` blocks at once).
     site_overrides : dict, optional
         The scenario's ``[sites.<id>]`` tables (default: the study's).
     keep_velocities : bool
         Keep and concatenate the hourly velocities (memory grows with the sites again).
     progress : callable, optional
         Called with a short text after each block.
+    threads : int, optional
+        Without a client: blocks run at once on threads of this process (default
+        :func:`block_threads`; 1 runs them in turn on this thread).  The numbers do
+        not depend on it (each block is its own Study; the reduction is in the order
+        of the blocks).
 
     Returns
     -------
@@ -237,10 +244,19 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
     say = progress or (lambda text: None)
     done = [None] * len(blocks)
     if client is None:
-        for i, sites in enumerate(blocks):
-            done[i] = run_block(block_inputs(inputs, sites), site_overrides, block_args[i],
-                                keep_velocities)
-            say(f"block {i + 1}/{len(blocks)} ({len(sites)} sites)")
+        n_threads = block_threads(len(blocks)) if threads is None else max(1, int(threads))
+
+        def one(i):
+            return run_block(block_inputs(inputs, blocks[i]), site_overrides, block_args[i],
+                             keep_velocities)
+        if n_threads <= 1:
+            for i, sites in enumerate(blocks):
+                done[i] = one(i)
+                say(f"block {i + 1}/{len(blocks)} ({len(sites)} sites)")
+        else:
+            _run_on_threads(one, done, n_threads,
+                            lambda i: say(f"block {i + 1}/{len(blocks)} "
+                                          f"({len(blocks[i])} sites)"))
     else:
         from .optional import require
         distributed = require("distributed")
@@ -275,6 +291,50 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
             if nxt is not None:
                 queue.add(nxt)
     return reduce_blocks(done, receptors, positions, list(inputs.catalogue.ids))
+
+
+#: Blocks of sites run at once on threads of this process, at most [-] (each block's
+#: engine then runs single-threaded, :func:`workbench.threads.threads_here`; numpy
+#: releases the interpreter lock in its loops, so one block's array work overlaps the
+#: other's Python-level work).  ``WORKBENCH_THREADS=1`` (or ``set_threads(1)``) runs
+#: the blocks in turn.
+MAX_BLOCK_THREADS = 2
+
+
+def block_threads(n_blocks: int) -> int:
+    """Blocks run at once in this process [-]: the engine's thread setting
+    (:func:`workbench.threads.get_threads`) capped at :data:`MAX_BLOCK_THREADS` and at
+    `n_blocks`; 1 off the main thread (a dask task, an outer pool).
+
+    >>> block_threads(1)
+    1
+    """
+    from .threads import threads_here
+    return max(1, min(threads_here(), MAX_BLOCK_THREADS, int(n_blocks)))
+
+
+def _run_on_threads(one, done, n_threads, say):
+    """``done[i] = one(i)`` for every block on `n_threads` threads, at most `n_threads`
+    blocks in flight (so at most that many blocks' hourly arrays at once); each result
+    goes to its own place, so the order in which blocks finish does not matter.  The
+    first error is raised here (blocks not started are cancelled)."""
+    from concurrent.futures import FIRST_COMPLETED, ThreadPoolExecutor, wait
+    todo = iter(range(len(done)))
+    with ThreadPoolExecutor(max_workers=n_threads, thread_name_prefix="workbench-block") as pool:
+        running = {pool.submit(one, i): i for i in itertools.islice(todo, n_threads)}
+        try:
+            while running:
+                finished, _ = wait(running, return_when=FIRST_COMPLETED)
+                for fut in sorted(finished, key=running.get):
+                    i = running.pop(fut)
+                    done[i] = fut.result()
+                    say(i)
+                    nxt = next(todo, None)
+                    if nxt is not None:
+                        running[pool.submit(one, nxt)] = nxt
+        finally:
+            for fut in running:
+                fut.cancel()
 
 
 #: Largest default block when no block size is given [sites].

@@ -19,7 +19,6 @@ chain's free acidity H+).
 from __future__ import annotations
 
 import json
-import warnings
 from dataclasses import asdict, dataclass, field
 
 import numpy as np
@@ -463,9 +462,12 @@ def _totals(dep, status, compl, element, pathway, species, fails=None):
                                   np.where(absent == "", spn, absent + " " + spn), absent)
                 flagged = np.where(st[..., k] == "flagged",
                                    np.where(flagged == "", spn, flagged + " " + spn), flagged)
-            with np.errstate(all="ignore"), warnings.catch_warnings():
-                warnings.simplefilter("ignore", RuntimeWarning)     # all-NaN slices
-                worst = (np.nanmin(np.where(st == "missing", np.nan, compl[..., sel]), -1)
+            # np.fmin.reduce is what np.nanmin computes on a float array, without the
+            # all-NaN warning: no catch_warnings (process-wide filters, not safe when
+            # blocks of sites run on threads)
+            with np.errstate(all="ignore"):
+                worst = (np.fmin.reduce(np.where(st == "missing", np.nan, compl[..., sel]),
+                                        axis=-1)
                          if (st != "missing").any() else np.full(total.shape, np.nan))
             out[f"{e}_{p}"] = (total, combined, passes, absent, worst, flagged)
     names = list(out)

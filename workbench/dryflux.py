@@ -149,8 +149,14 @@ def hour_slots(times):
 
 def _cumulative(x):
     """Cumulative sum along the last axis with a leading zero (NaN counted as 0)."""
-    z = np.zeros(x.shape[:-1] + (1,))
-    return np.concatenate([z, np.cumsum(np.where(np.isfinite(x), x, 0.0), axis=-1)], axis=-1)
+    clean = np.where(np.isfinite(x), x, 0.0)
+    if clean.dtype != np.float64:            # (the sum in its own dtype, then float64)
+        z = np.zeros(x.shape[:-1] + (1,))
+        return np.concatenate([z, np.cumsum(clean, axis=-1)], axis=-1)
+    out = np.empty(clean.shape[:-1] + (clean.shape[-1] + 1,))
+    out[..., 0] = 0.0
+    np.cumsum(clean, axis=-1, out=out[..., 1:])      # the same additions, no second copy
+    return out
 
 
 def _hour_bounds(times, starts, ends):

@@ -207,10 +207,14 @@ class Study:
         return self.graph.run(name, options, deps, params, fn, counts=self.counts)
 
     def _periods_node(self, resolution="year", start=None, end=None, hydro_start_month=10):
-        return self._run("periods", {"wet": SimpleNamespace(hydro_start_month=hydro_start_month)},
+        """The periods stage, its result keyed by its content (:meth:`_as_periods_node`):
+        the same table asked for with `start` written otherwise (``"2016-01-01"`` or a
+        datetime64, as the season coverage asks) reuses the stages run on it."""
+        node = self._run("periods", {"wet": SimpleNamespace(hydro_start_month=hydro_start_month)},
                          params={"span": tuple(self.span()), "resolution": resolution,
                                  "start": None if start is None else str(start),
                                  "end": None if end is None else str(end)})
+        return self._as_periods_node(node.value)
 
     def periods(self, resolution="year", start=None, end=None, hydro_start_month=10):
         """The reporting periods (a table; see :func:`workbench.periods.make_periods`)."""
@@ -219,7 +223,8 @@ class Study:
     def _as_periods_node(self, periods) -> Node:
         """A periods table given by a caller, as a node (keyed by its content)."""
         cols = [periods[c].to_numpy() for c in periods.columns]
-        return Node("periods:" + content_digest(cols, *periods.columns), periods)
+        return Node("periods:" + content_digest([periods.index.to_numpy(), *cols],
+                                                *periods.columns), periods)
 
     # ---------------------------------------------------------------- stages
     def _screened_node(self, wet_options) -> Node:
