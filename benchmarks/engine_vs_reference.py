@@ -31,7 +31,10 @@ usable cores up to 4); it is timed once per thread count (the first count's rate
 the ``engine_*`` keys, every count's under ``engine_by_threads``).  The references
 run on one thread.  A threaded engine gains in wall time only (its CPU time adds up
 over the threads), and only when the machine has a free core: the CPU-time rates
-then tell the work per element, the wall rates the time a user waits.
+then tell the work per element, the wall rates the time a user waits.  A control probe (:func:`control_probe`, two
+threads of numpy against one) before and after each size tells whether a second core
+was free.  On several threads a call of many sites runs whole site blocks of the
+engine on the threads (docs/engine.md "Threads").
 """
 from __future__ import annotations
 
@@ -48,6 +51,32 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 sys.path.insert(0, str(Path(__file__).resolve().parent))
+
+
+def control_probe(repeat=1500):
+    """Speed-up of two threads over one on a fixed numpy task [-] (a free-core check).
+
+    ``np.log(np.exp(x))`` on 32,768 floats (256 kB), `repeat` times twice: on one
+    thread, then on two threads at once (numpy releases the interpreter lock in
+    these loops).  About 2 when a second core is free, about 1 when it is not (the
+    other tenants of a shared machine need not show in the load average).
+    """
+    import threading
+    x = np.random.default_rng(0).random(32768) + 0.5
+
+    def work():
+        for _ in range(repeat):
+            np.log(np.exp(x))
+    t = time.perf_counter()
+    work()
+    work()
+    one = time.perf_counter() - t
+    t = time.perf_counter()
+    other = threading.Thread(target=work)
+    other.start()
+    work()
+    other.join()
+    return one / (time.perf_counter() - t)
 
 
 def site_years(met, surf, n, seed=11):
@@ -113,6 +142,7 @@ def main(argv=None):
         n_r = s.sizes["receptor"]
         cells = n * n_r * m.sizes["time"]
         load_before = os.getloadavg()
+        probe_before = control_probe()
         by_threads = {}
         for n_threads in thread_counts:
             workbench.set_threads(n_threads)
@@ -152,6 +182,7 @@ def main(argv=None):
                "engine_cells_per_s": cells / t_eng, "numba_cells_per_s": cells / t_nb,
                "engine_first_call_cells_per_s": cells / t_first, "repeat": args.repeat,
                "load_average_before": load_before, "load_average_after": os.getloadavg(),
+               "probe_before": probe_before, "probe_after": control_probe(),
                "scalar_cells_per_s": cells_sc / t_sc, "scalar_sites_timed": k,
                "engine_s": t_eng, "numba_s": t_nb, "scalar_s": t_sc,
                "engine_cpu_s": c_eng, "numba_cpu_s": c_nb, "scalar_cpu_s": c_sc}
@@ -187,7 +218,9 @@ def main(argv=None):
                   f"{e['cpu_cells_per_s'] / 1e6:.4f} M/s (x{e['cpu_over_scalar']:.1f}, "
                   f"x{e['cpu_over_numba']:.3f}); first call {e['first_call_cells_per_s'] / 1e6:.4f}")
         print(f"  load average before {' '.join(f'{x:.2f}' for x in load_before)}, after "
-              f"{' '.join(f'{x:.2f}' for x in row['load_average_after'])}")
+              f"{' '.join(f'{x:.2f}' for x in row['load_average_after'])}; control probe "
+              f"(2 threads / 1, about 2 with a free core) before {probe_before:.2f} x, "
+              f"after {row['probe_after']:.2f} x")
         print(f"  engine/scalar {row['engine_over_scalar']:.1f} x   "
               f"engine/numba {row['engine_over_numba']:.3f} x   (numba/engine "
               f"{1 / row['engine_over_numba']:.2f} x)")

@@ -107,3 +107,20 @@ def test_run_each_max_threads_keeps_the_caller(monkeypatch):
     names = []
     T.run_each(lambda i: names.append(threading.current_thread().name), 9, max_threads=1)
     assert names == [threading.current_thread().name] * 9
+
+
+def test_sharing_marks_the_tasks_of_several_threads_only():
+    """``sharing()`` is true inside the tasks of a run on several threads (so that
+    the blockwise steps there take the larger blocks), false outside and on one."""
+    from workbench.surface import _array
+    T.set_threads(2)
+    seen = {}
+
+    def task(i):
+        seen[i] = (T.sharing(), _array.block_size(1))
+    assert not T.sharing()
+    T.run_each(task, 4)
+    assert all(s == (True, _array.THREAD_BLOCK_ELEMENTS) for s in seen.values())
+    assert not T.sharing() and _array.block_size(1) == _array.BLOCK_ELEMENTS
+    T.run_each(task, 3, max_threads=1)
+    assert seen[0] == (False, _array.BLOCK_ELEMENTS)

@@ -44,6 +44,7 @@ _lock = threading.Lock()
 _setting: int | None = None     # set_threads(n)
 _pool: ThreadPoolExecutor | None = None
 _pool_size = 0
+_here = threading.local()       # .sharing: running a task of run_each beside other threads
 
 
 def usable_cores() -> int:
@@ -108,6 +109,12 @@ def threads_here() -> int:
     return get_threads()
 
 
+def sharing() -> bool:
+    """True on a thread that runs a task of :func:`run_each` beside other threads
+    (the pool's threads and the calling thread, while the tasks run) [-]."""
+    return getattr(_here, "sharing", False)
+
+
 def _get_pool(workers: int) -> ThreadPoolExecutor:
     global _pool, _pool_size
     with _lock:
@@ -147,14 +154,19 @@ def run_each(task, n_items: int, max_threads: int | None = None) -> None:
     context = contextvars.copy_context()
 
     def loop():
-        for i in items:
-            if i >= n_items or failed:
-                return
-            try:
-                task(i)
-            except BaseException as exc:  # noqa: BLE001 - raised in the caller below
-                failed.append(exc)
-                return
+        before = sharing()
+        _here.sharing = True
+        try:
+            for i in items:
+                if i >= n_items or failed:
+                    return
+                try:
+                    task(i)
+                except BaseException as exc:  # noqa: BLE001 - raised in the caller below
+                    failed.append(exc)
+                    return
+        finally:
+            _here.sharing = before
 
     pool = _get_pool(n - 1)
     futures = [pool.submit(context.copy().run, loop) for _ in range(n - 1)]

@@ -14,6 +14,7 @@ import pytest
 
 import workbench
 from workbench.drydep import DryOptions, velocities
+from workbench.drydep import core
 from workbench.surface import _array
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_data"
@@ -59,6 +60,81 @@ def test_one_two_three_threads_give_the_same_numbers(site_year, scheme):
             np.testing.assert_array_equal(runs[n][name].values, one[name].values,
                                           err_msg=f"{name}, {n} threads")
             assert runs[n][name].attrs == one[name].attrs
+
+
+@pytest.fixture(scope="module")
+def network():
+    """Every demo site (4, all 7 receptors), January-February 2021, a coarse fraction
+    of pSO4 by site (two sites given, two not: the sources differ by site)."""
+    from workbench.io import read_met, read_sites
+    cat = read_sites(DEMO / "sites.toml")
+    met, _ = read_met(DEMO / "met.csv.gz", cat)
+    met = met.sel(time=slice("2021-01-01T01:00", "2021-03-01T00:00")).load()
+    surf = cat.surfaces()
+    surf["coarse_fraction_pSO4"] = ("site", [0.2, np.nan, 0.35, np.nan])
+    return met, surf
+
+
+@pytest.mark.parametrize("scheme", ["wesely1989", "zhang2003"])
+def test_site_blocks_on_threads_give_the_same_numbers_and_attributes(network, scheme,
+                                                                     monkeypatch):
+    """Several sites: the engine's hourly part runs in blocks of whole sites on the
+    threads (limits lowered so that a block is one or two sites); 1, 2 and 3 threads
+    give the same variables, numbers, attributes and coordinates."""
+    met, surf = network
+    per_site = surf.sizes["receptor"] * met.sizes["time"]
+    monkeypatch.setattr(core, "SITE_BLOCK_MIN_ELEMENTS", per_site)
+    monkeypatch.setattr(core, "SITE_BLOCK_ELEMENTS", per_site)
+    cuts = core._site_cuts(met.sizes["site"], per_site, 2)
+    assert [c.stop - c.start for c in cuts] == [1, 1, 1, 1]
+    assert core._site_cuts(4, per_site, 3) == cuts                       # one site each
+    assert [c.stop - c.start for c in core._site_cuts(5, 2, 2)] == [3, 2]  # one per thread
+    calls = []
+    blocks = core._hourly_site_blocks
+    monkeypatch.setattr(core, "_hourly_site_blocks",
+                        lambda *a: calls.append(a[-1]) or blocks(*a))
+    opt = DryOptions(gas_scheme=scheme)
+    runs = {}
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        for n in (1, 2, 3):
+            workbench.set_threads(n)
+            runs[n] = velocities(met, surf, opt)
+    assert calls == [2, 3]             # one thread: one call on every site, as before
+    one = runs[1]
+    assert one["vd_pSO4"].attrs["coarse_fraction"][0] == 0.2
+    for n in (2, 3):
+        got = runs[n]
+        assert list(got.data_vars) == list(one.data_vars)
+        assert got.attrs == one.attrs
+        for name in one.coords:
+            np.testing.assert_array_equal(got[name].values, one[name].values)
+        for name in one.data_vars:
+            assert got[name].dims == one[name].dims, name
+            assert got[name].dtype == one[name].dtype, name
+            np.testing.assert_array_equal(got[name].values, one[name].values,
+                                          err_msg=f"{name}, {n} threads")
+            assert got[name].attrs == one[name].attrs, name
+
+
+def test_a_site_year_and_a_cached_call_stay_on_one_thread(network, monkeypatch):
+    """Below SITE_BLOCK_MIN_ELEMENTS (the package's: a site-year of the apps), with a
+    stage cache, or from a thread other than the main one: no site blocks."""
+    from workbench import graph
+    met, surf = network
+    monkeypatch.setattr(core, "_hourly_site_blocks",
+                        lambda *a: pytest.fail("site blocks used"))
+    opt = DryOptions(gases=("SO2",), particles=("pSO4",), components=False)
+    workbench.set_threads(3)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        velocities(met, surf, opt)                    # 4 sites x 7 x 1416 h < the limit
+        monkeypatch.setattr(core, "SITE_BLOCK_MIN_ELEMENTS", 1)
+        velocities(met, surf, opt, cache=graph.Graph())
+        velocities(met.isel(site=[0]), surf.isel(site=[0]), opt)   # one site
+        from concurrent.futures import ThreadPoolExecutor
+        with ThreadPoolExecutor(1) as ex:
+            ex.submit(velocities, met, surf, opt).result()
 
 
 def test_block_size_and_threads_for(monkeypatch):

@@ -24,11 +24,14 @@ function does them itself.  Steps:
 """
 from __future__ import annotations
 
+import threading
+
 import numpy as np
 import xarray as xr
 
 from .. import landuse
 from ..optional import require
+from ..threads import run_each, threads_here
 from ..constants import CP_DRY_AIR, HALF_HOUR, VON_KARMAN
 from ..landuse import LAND_USE
 from .. import graph as _graph
@@ -81,6 +84,11 @@ MET_VARIABLES = ("wind_speed", "temperature", "relative_humidity", "solar_radiat
 #: (:func:`workbench.drydep.particle_fractions.hourly_sampler_fractions`).
 AIR_DERIVED = ("nh3_so2_ratio", "nh3_acid_ratio") + tuple(f"coarse_fraction_{sp}" for sp in
                                          ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa"))
+#: Site-receptor-hours per block of whole sites on threads (:func:`_hourly_site_blocks`;
+#: about 10 site-years of 3 receptors: the fixed cost of a block, some 5 ms, stays small). [-]
+SITE_BLOCK_ELEMENTS = 262144
+#: Calls on fewer site-receptor-hours (a site-year of the apps) run on the calling thread. [-]
+SITE_BLOCK_MIN_ELEMENTS = 262144
 _PREV = "_previous_precipitation"
 _FROST = "_autumn_frost_seen"
 
@@ -203,7 +211,8 @@ def _mode_lookup(cache, opt, mode):
 
 def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: list,
             cache=None, met_surf: xr.Dataset | None = None,
-            summaries: bool = False) -> xr.Dataset:
+            summaries: bool = False, particle_parts: dict | None = None,
+            rows: slice | None = None) -> xr.Dataset:
     """All hourly quantities for one in-memory block of the met Dataset.
 
     Parameters
@@ -225,6 +234,12 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     summaries : bool
         Add the (site, receptor) summaries of :func:`_summaries` (when `block` is the
         whole record).
+    particle_parts : dict, optional
+        :func:`_particle_parts` of every site of the call, when `block` holds the
+        sites `rows` of it (:func:`_hourly_site_blocks`): the weights are taken from
+        those rows, the attributes from every site.
+    rows : slice, optional
+        The sites of `block` among those of `particle_parts`.
 
     Returns
     -------
@@ -520,9 +535,11 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                                                 "NH3 stomatal compensation point chi_s")
         # each distinct mode once, all of them in one call (shared surface terms); the
         # mass weight of each mode per site (docs/methods_dry_particles.md 10.1)
-        parts = {sp: _fractions.mode_weights(
-            surf, sp, opt, st(f"coarse_fraction_{sp}")[:, 0, :]
-            if f"coarse_fraction_{sp}" in block else None) for sp in opt.particles}
+        if particle_parts is None:
+            parts = _particle_parts(block, surf, opt)
+        else:  # found on every site of the call: this block's rows of the weights
+            parts = {sp: ([(mode, w[rows]) for mode, w in pp[0]],) + tuple(pp[1:])
+                     for sp, pp in particle_parts.items()}
         modes = list(dict.fromkeys(mode for pp in parts.values() for mode, _ in pp[0]))
         # read the cached modes before storing new ones: storing may evict them
         found = {mode: _mode_lookup(cache, opt, mode) for mode in modes}
@@ -543,10 +560,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             for mode, w in weights:
                 total = total + _fractions.broadcast_weight(w) * by_mode[mode]
             out[f"vd_{sp}"] = srt(total, "m s-1", f"mass-weighted dry deposition velocity of {sp} "
-                                  "(Zhang et al. 2001)", coarse_fraction=coarse.tolist(),
-                                  coarse_fraction_source=", ".join(
-                                      _fractions.SOURCE[int(k)] for k in source),
-                                  modes=repr([(m, float(np.max(w))) for m, w in weights]))
+                                  "(Zhang et al. 2001)", **_particle_attrs(
+                                      (particle_parts or parts)[sp]))
 
     # --- assemble -----------------------------------------------------------------------------
     obukhov = np.where(inv_l == 0, np.inf, 1.0 / np.where(inv_l == 0, 1.0, inv_l))
@@ -587,6 +602,24 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     return xr.Dataset(variables, coords=coords)
 
 
+def _particle_parts(block, surf, opt) -> dict:
+    """Mode weights of each particle species of `opt` at the sites of `block`
+    (:func:`workbench.drydep.particle_fractions.mode_weights`; weights [1] by site or
+    by site and hour, coarse fraction [1] and its source code by site)."""
+    def hourly(sp):  # (site, time) coarse fraction of the sampler [1], if given
+        name = f"coarse_fraction_{sp}"
+        return np.asarray(block[name].values, dtype=float) if name in block else None
+    return {sp: _fractions.mode_weights(surf, sp, opt, hourly(sp)) for sp in opt.particles}
+
+
+def _particle_attrs(part) -> dict:
+    """The attributes of ``vd_<species>`` from its mode weights (every site of the call)."""
+    weights, coarse, source = part
+    return {"coarse_fraction": coarse.tolist(),
+            "coarse_fraction_source": ", ".join(_fractions.SOURCE[int(k)] for k in source),
+            "modes": repr([(m, float(np.max(w))) for m, w in weights])}
+
+
 def _coordinates(block, receptors):
     """Coordinates (site, receptor, time) of the result, reusing the block's indexes.
 
@@ -601,6 +634,52 @@ def _coordinates(block, receptors):
          "time": block.variables["time"]},
         indexes={"site": block.xindexes["site"], "receptor": rec.xindexes["receptor"],
                  "time": block.xindexes["time"]})
+
+
+def _site_cuts(n_sites: int, per_site: int, n_threads: int) -> list:
+    """Slices of the sites for :func:`_hourly_site_blocks`: about
+    :data:`SITE_BLOCK_ELEMENTS` site-receptor-hours each, at least one per thread."""
+    size = max(1, SITE_BLOCK_ELEMENTS // max(per_site, 1))
+    size = min(size, -(-n_sites // n_threads))
+    return [slice(i, min(i + size, n_sites)) for i in range(0, n_sites, size)]
+
+
+def _hourly_site_blocks(aug, surf, opt, receptors, met_surf, n_threads) -> xr.Dataset:
+    """:func:`_hourly` (with the summaries) of the whole in-memory record, run in
+    blocks of whole sites on `n_threads` threads (:func:`workbench.threads.run_each`).
+
+    Every step of :func:`_hourly` works site by site (nothing looks across sites but
+    the particle modes' weights and attributes, found here on every site first), so
+    each element gets the same operations as in one call on all the sites: the same
+    numbers bit for bit, and the same attributes, for any number of threads.  Each
+    block copies its variables into the result (allocated by the first block to
+    finish) in site order; blocks run on the pool's threads, where the blockwise
+    steps of :func:`_hourly` stay on their thread.
+    """
+    n_s = aug.sizes["site"]
+    cuts = _site_cuts(n_s, len(receptors) * aug.sizes["time"], n_threads)
+    parts = _particle_parts(aug, surf, opt)
+    result = {}   # name -> xarray.Variable of every site, made by the first block to finish
+    lock = threading.Lock()
+
+    def task(i):
+        rows = cuts[i]
+        ds = _hourly(aug.isel(site=rows), surf.isel(site=rows), opt, receptors, None,
+                     met_surf.isel(site=rows), summaries=True, particle_parts=parts, rows=rows)
+        with lock:
+            if not result:
+                for name, v in ds.data_vars.items():
+                    result[name] = xr.Variable(
+                        v.dims, np.empty((n_s,) + v.shape[1:], dtype=v.dtype), v.attrs)
+        if list(ds.data_vars) != list(result):
+            raise RuntimeError("site blocks of the engine gave different variables")
+        for name, v in ds.data_vars.items():
+            if v.dims[0] != "site" or v.attrs != result[name].attrs:
+                raise RuntimeError(f"site blocks of the engine differ in {name!r}")
+            result[name].values[rows] = v.values
+
+    run_each(task, len(cuts), n_threads)
+    return xr.Dataset(result, coords=_coordinates(aug, receptors))
 
 
 def _summaries(variables, surf, receptors, opt) -> dict:
@@ -751,7 +830,13 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         if isinstance(cache, _graph.Graph):
             cache = cache.steps(_graph.variables_digest(
                 [*aug.variables.items(), *met_surf.variables.items()]))
-        hourly = _hourly(aug, surf, opt, receptors, cache, met_surf, summaries=True)
+        n_threads = threads_here()
+        if (cache is None and n_threads > 1 and aug.sizes["site"] > 1
+                and aug.sizes["site"] * len(receptors) * aug.sizes["time"]
+                >= SITE_BLOCK_MIN_ELEMENTS):
+            hourly = _hourly_site_blocks(aug, surf, opt, receptors, met_surf, n_threads)
+        else:
+            hourly = _hourly(aug, surf, opt, receptors, cache, met_surf, summaries=True)
     if lazy:  # the summaries over the whole record, then one constructor call
         ds = xr.Dataset({**hourly.data_vars.variables,
                          **_summaries(hourly.variables, surf, receptors, opt)},

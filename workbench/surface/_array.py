@@ -11,7 +11,7 @@ import threading
 import numpy as np
 import xarray as xr
 
-from ..threads import run_each, threads_here
+from ..threads import run_each, sharing, threads_here
 
 
 def is_xarray(*args) -> bool:
@@ -57,6 +57,10 @@ THREAD_BLOCK_ELEMENTS = 4 * BLOCK_ELEMENTS
 #: Steps on fewer elements run on the calling thread only (:func:`threads_for`):
 #: two blocks of :data:`THREAD_BLOCK_ELEMENTS` (a site-year of 30 receptors). [-]
 MIN_PARALLEL_ELEMENTS = 2 * THREAD_BLOCK_ELEMENTS
+
+#: A thread that shares the cores (:func:`workbench.threads.sharing`) uses the larger
+#: blocks of :data:`THREAD_BLOCK_ELEMENTS` too (for the same reason). [-]
+SHARED_LARGE_BLOCKS = True
 
 
 def plain_numpy(*args) -> bool:
@@ -135,9 +139,13 @@ def block_size(n_threads, size=None):
     """Elements per block on `n_threads` threads [-].
 
     `size` (default :data:`BLOCK_ELEMENTS`, sized for the processor's cache) on one
-    thread, :data:`THREAD_BLOCK_ELEMENTS` on several.
+    thread, :data:`THREAD_BLOCK_ELEMENTS` on several, and on one thread that shares
+    the cores with others (a block of whole sites of the engine on the pool,
+    :func:`workbench.threads.sharing`).
     """
-    return (size or BLOCK_ELEMENTS) if n_threads <= 1 else THREAD_BLOCK_ELEMENTS
+    if n_threads > 1 or (SHARED_LARGE_BLOCKS and sharing()):
+        return THREAD_BLOCK_ELEMENTS
+    return size or BLOCK_ELEMENTS
 
 
 def blockwise(func, *args, size=None):
