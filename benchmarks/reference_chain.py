@@ -42,7 +42,7 @@ import math
 import numpy as np
 
 from workbench import constants as C
-from workbench.drydep import core, receptors as R, wesely1989 as W, zhang_tables as Z
+from workbench.drydep import micromet as M, receptors as R, wesely1989 as W, zhang_tables as Z
 from workbench.species import get as species
 from workbench.surface import energy_balance as EB
 from workbench.surface.air import standard_pressure_at
@@ -164,7 +164,7 @@ def build(jit=None):
         # --- u* over the receptor --------------------------------------------------------
         water = z0_s != z0_s
         if water:
-            z0_r = core.CHARNOCK_START_Z0
+            z0_r = M.CHARNOCK_START_Z0
             for _ in range(n_charnock):
                 us_w = transfer(us_m, z0_m, d_m, z0_r, 0.0, zb)
                 if us_w < floor:
