@@ -42,7 +42,7 @@ import math
 import numpy as np
 
 from workbench import constants as C
-from workbench.drydep import core, wesely1989 as W, zhang_tables as Z
+from workbench.drydep import micromet as M, receptors as R, wesely1989 as W, zhang_tables as Z
 from workbench.species import get as species
 from workbench.surface import energy_balance as EB
 from workbench.surface.air import standard_pressure_at
@@ -164,7 +164,7 @@ def build(jit=None):
         # --- u* over the receptor --------------------------------------------------------
         water = z0_s != z0_s
         if water:
-            z0_r = core.CHARNOCK_START_Z0
+            z0_r = M.CHARNOCK_START_Z0
             for _ in range(n_charnock):
                 us_w = transfer(us_m, z0_m, d_m, z0_r, 0.0, zb)
                 if us_w < floor:
@@ -310,10 +310,10 @@ def prepare(met, surfaces, opt, engine):
 
     surf = surfaces.sel(site=met["site"].values)
     receptors = [str(r) for r in surf["receptor"].values]
-    names, z0_m, d_m = core._met_surface(surf, receptors, opt)
+    names, z0_m, d_m = R.met_surface(surf, receptors, opt)
     if np.isnan(z0_m).any():
         raise ValueError("the references do not take a wind mast over water")
-    z0_s, d_r = core._receptor_roughness(surf, receptors, opt)
+    z0_s, d_r = R.receptor_roughness(surf, receptors, opt)
     n_s, n_r = len(surf["site"]), len(receptors)
     rec = np.broadcast_to(np.array(receptors, dtype=object), (n_s, n_r))
     h = (st("temperature"), st("relative_humidity"), st("solar_radiation"), st("pressure"),

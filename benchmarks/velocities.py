@@ -64,6 +64,7 @@ def main(argv=None):
 
     from workbench.drydep import core
     from workbench.drydep import particles
+    from workbench.drydep import receptors
     from workbench.drydep import gas
     from workbench.ui.session import Session
 
@@ -75,8 +76,8 @@ def main(argv=None):
     core.velocities(met, surf, opt)  # warm-up (imports, caches of numpy)
 
     marks = {}
-    _clocked(core, "_met_surface", marks, "step3")
-    _clocked(core, "_receptor_roughness", marks, "step4")
+    _clocked(receptors, "met_surface", marks, "step3")
+    _clocked(receptors, "receptor_roughness", marks, "step4")
     _clocked(gas, "quasi_laminar_resistance", marks, "gases")
     if hasattr(gas, "surface_resistances"):  # all gases at once, before the first Rb
         _clocked(gas, "surface_resistances", marks, "gases")

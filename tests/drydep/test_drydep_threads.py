@@ -14,7 +14,7 @@ import pytest
 
 import workbench
 from workbench.drydep import DryOptions, velocities
-from workbench.drydep import core
+from workbench.drydep import siteblocks
 from workbench.surface import _array
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_data"
@@ -83,15 +83,15 @@ def test_site_blocks_on_threads_give_the_same_numbers_and_attributes(network, sc
     give the same variables, numbers, attributes and coordinates."""
     met, surf = network
     per_site = surf.sizes["receptor"] * met.sizes["time"]
-    monkeypatch.setattr(core, "SITE_BLOCK_MIN_ELEMENTS", per_site)
-    monkeypatch.setattr(core, "SITE_BLOCK_ELEMENTS", per_site)
-    cuts = core._site_cuts(met.sizes["site"], per_site, 2)
+    monkeypatch.setattr(siteblocks, "SITE_BLOCK_MIN_ELEMENTS", per_site)
+    monkeypatch.setattr(siteblocks, "SITE_BLOCK_ELEMENTS", per_site)
+    cuts = siteblocks.site_cuts(met.sizes["site"], per_site, 2)
     assert [c.stop - c.start for c in cuts] == [1, 1, 1, 1]
-    assert core._site_cuts(4, per_site, 3) == cuts                       # one site each
-    assert [c.stop - c.start for c in core._site_cuts(5, 2, 2)] == [3, 2]  # one per thread
+    assert siteblocks.site_cuts(4, per_site, 3) == cuts                       # one site each
+    assert [c.stop - c.start for c in siteblocks.site_cuts(5, 2, 2)] == [3, 2]  # one per thread
     calls = []
-    blocks = core._hourly_site_blocks
-    monkeypatch.setattr(core, "_hourly_site_blocks",
+    blocks = siteblocks.hourly_site_blocks
+    monkeypatch.setattr(siteblocks, "hourly_site_blocks",
                         lambda *a: calls.append(a[-1]) or blocks(*a))
     opt = DryOptions(gas_scheme=scheme)
     runs = {}
@@ -122,14 +122,14 @@ def test_a_site_year_and_a_cached_call_stay_on_one_thread(network, monkeypatch):
     stage cache, or from a thread other than the main one: no site blocks."""
     from workbench import graph
     met, surf = network
-    monkeypatch.setattr(core, "_hourly_site_blocks",
+    monkeypatch.setattr(siteblocks, "hourly_site_blocks",
                         lambda *a: pytest.fail("site blocks used"))
     opt = DryOptions(gases=("SO2",), particles=("pSO4",), components=False)
     workbench.set_threads(3)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", RuntimeWarning)
         velocities(met, surf, opt)                    # 4 sites x 7 x 1416 h < the limit
-        monkeypatch.setattr(core, "SITE_BLOCK_MIN_ELEMENTS", 1)
+        monkeypatch.setattr(siteblocks, "SITE_BLOCK_MIN_ELEMENTS", 1)
         velocities(met, surf, opt, cache=graph.Graph())
         velocities(met.isel(site=[0]), surf.isel(site=[0]), opt)   # one site
         from concurrent.futures import ThreadPoolExecutor

@@ -12,7 +12,7 @@ import pytest
 
 from drydep.dry_synthetic import make_met, make_surfaces
 from workbench.drydep import DryOptions, velocities
-from workbench.drydep.core import receptor_transfers
+from workbench.drydep.receptors import receptor_transfers
 from workbench.errors import InputError
 
 SITE = """[[site]]

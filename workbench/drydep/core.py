@@ -24,39 +24,26 @@ function does them itself.  Steps:
 """
 from __future__ import annotations
 
-import threading
-
 import numpy as np
 import xarray as xr
 
 from .. import landuse
 from ..optional import require
-from ..threads import run_each, threads_here
-from ..constants import CP_DRY_AIR, HALF_HOUR, VON_KARMAN
-from ..landuse import LAND_USE
+from ..threads import threads_here
 from .. import graph as _graph
-from ..surface import energy_balance as eb
-from ..surface.aerodynamic import (aerodynamic_resistance, apply_cap, apply_floor,
-                                   coriolis_parameter, reference_height, transfer_ustar,
-                                   transfer_ustar_drag_law)
-from ..surface.air import (air_density, kinematic_viscosity, specific_humidity_deficit,
-                           station_pressure)
-from ..surface.roughness import charnock_roughness, land_use_roughness
-from ..surface.solar import solar_elevation_sine, time_parts
+from ..surface.air import specific_humidity_deficit
 from . import canopy as _canopy
 from . import gas as _gas
+from . import micromet as _micromet
 from . import nh3_bidirectional as _nh3
 from . import particle_fractions as _fractions
 from . import particles as _particles
+from . import receptors as _receptors
 from . import seasons as _seasons
+from . import siteblocks as _blocks
 from . import wetness as _wetness
 from .options import DryOptions
 
-#: Start value of the Charnock iteration [m] (numerical device).
-CHARNOCK_START_Z0 = 1e-4
-#: The met time stamp ends the hour; the sun is taken at its middle.
-#: Smallest heat flux passed to the unstable solver [W m-2] (numerical device).
-_MIN_DAY_FLUX = 1e-3
 #: Codes of ``surface_layer_method``.
 METHOD = {0: "measured u* and H", 1: "measured u*, H from energy balance or theta*",
           2: "measured H > 0, u* solved", 3: "energy balance by day (Holtslag-van Ulden)",
@@ -84,75 +71,8 @@ MET_VARIABLES = ("wind_speed", "temperature", "relative_humidity", "solar_radiat
 #: (:func:`workbench.drydep.particle_fractions.hourly_sampler_fractions`).
 AIR_DERIVED = ("nh3_so2_ratio", "nh3_acid_ratio") + tuple(f"coarse_fraction_{sp}" for sp in
                                          ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa"))
-#: Site-receptor-hours per block of whole sites on threads (:func:`_hourly_site_blocks`;
-#: about 10 site-years of 3 receptors: the fixed cost of a block, some 5 ms, stays small). [-]
-SITE_BLOCK_ELEMENTS = 262144
-#: Calls on fewer site-receptor-hours (a site-year of the apps) run on the calling thread. [-]
-SITE_BLOCK_MIN_ELEMENTS = 262144
 _PREV = "_previous_precipitation"
 _FROST = "_autumn_frost_seen"
-
-
-def _met_surface(surf, receptors, opt):
-    """Class, z0 and d of the surface around each wind mast (per site)."""
-    names = [str(x) for x in surf["met_land_use"].values]
-    heights, z0o, do = [], [], []
-    for i, m in enumerate(names):
-        landuse.check(m)
-        own = [j for j, r in enumerate(receptors)
-               if r == m and bool(surf["is_site_surface"].values[i, j])]
-        if own:
-            j = own[0]
-            heights.append(float(surf["canopy_height"].values[i, j]))
-            z0o.append(float(surf["roughness_length"].values[i, j]))
-            do.append(float(surf["displacement_height"].values[i, j]))
-        else:
-            heights.append(LAND_USE[m][1])
-            z0o.append(np.nan)
-            do.append(np.nan)
-    z0, d = land_use_roughness(names, np.array(heights), np.array(z0o), np.array(do),
-                               opt.roughness)
-    return names, np.asarray(z0, float), np.asarray(d, float)
-
-
-def receptor_transfers(surf, receptors, opt):
-    """The transfer of u* of each site and receptor (site, receptor) [-].
-
-    ``opt.ustar_transfer_receptor["<site>/<class>"]``, else the site's own table (the
-    ``ustar_transfer`` variable of `surf`, from sites.toml's ``[site.ustar_transfer]``;
-    empty: not set), else ``opt.ustar_transfer_receptor["<class>"]``, else
-    ``opt.ustar_transfer``.
-
-    Parameters
-    ----------
-    surf : xarray.Dataset
-        The receptor surfaces (site, receptor).
-    receptors : sequence of str
-    opt : DryOptions
-
-    Returns
-    -------
-    numpy.ndarray of str
-        ``"drag_law"`` or ``"blending_height"``, shape (site, receptor).
-    """
-    over = opt.ustar_transfer_receptor
-    if not over and "ustar_transfer" not in surf:   # the common case: one transfer
-        return np.full((surf.sizes["site"], len(receptors)), opt.ustar_transfer, dtype=object)
-    sites = [str(x) for x in surf["site"].values]
-    table = (surf["ustar_transfer"].transpose("site", "receptor").values
-             if "ustar_transfer" in surf else np.full((len(sites), len(receptors)), ""))
-    out = np.empty((len(sites), len(receptors)), dtype=object)
-    for i, s in enumerate(sites):          # sites x receptors names, not hours
-        for j, r in enumerate(receptors):
-            out[i, j] = over.get(f"{s}/{r}") or table[i, j] or over.get(r) or opt.ustar_transfer
-    return out
-
-
-def _receptor_roughness(surf, receptors, opt):
-    z0, d = land_use_roughness(receptors, surf["canopy_height"].values.astype(float),
-                               surf["roughness_length"].values.astype(float),
-                               surf["displacement_height"].values.astype(float), opt.roughness)
-    return np.asarray(z0, float), np.asarray(d, float)
 
 
 #: The steps of :func:`velocities` as stages of the graph (:mod:`workbench.graph`), with
@@ -179,11 +99,6 @@ _graph.declare("gas_vd", {"dry": _GAS_OPTIONS}, freeze=True,
 _graph.declare("particle_mode_vd", {"dry": _PARTICLE_OPTIONS}, freeze=True,
                doc="step 6: mass-weighted Vd of one log-normal particle mode")
 
-#: What steps 1-4 hand on (the cached result of the surface layer), and step 5.
-_MICROMET_OUT = ("temp", "u", "rh", "k_down", "precip", "pres", "rho", "snow", "cloud",
-                 "cloud_src", "pressure_estimated", "us_m", "h_m", "method", "ok",
-                 "theta_limited", "night", "us_r", "floor_used", "h_r", "inv_l", "z_ref",
-                 "raised", "ra", "cap_used", "valid", "z0_r")
 _STATE_OUT = ("cat", "cat_src", "wet", "kind", "wet_src")
 
 
@@ -235,9 +150,10 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         Add the (site, receptor) summaries of :func:`_summaries` (when `block` is the
         whole record).
     particle_parts : dict, optional
-        :func:`_particle_parts` of every site of the call, when `block` holds the
-        sites `rows` of it (:func:`_hourly_site_blocks`): the weights are taken from
-        those rows, the attributes from every site.
+        :func:`workbench.drydep.siteblocks.particle_parts` of every site of the call,
+        when `block` holds the sites `rows` of it
+        (:func:`workbench.drydep.siteblocks.hourly_site_blocks`): the weights are taken
+        from those rows, the attributes from every site.
     rows : slice, optional
         The sites of `block` among those of `particle_parts`.
 
@@ -265,123 +181,14 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     def rec(values):  # (1, receptor, 1)
         return np.asarray(values)[None, :, None]
 
-    def micromet(opt):
-        # --- 1. inputs, pressure, air ------------------------------------------------------
-        temp, u, rh = st("temperature"), st("wind_speed"), st("relative_humidity")
-        k_down, precip = st("solar_radiation"), st("precipitation")
-        pres, pressure_estimated = station_pressure(st("pressure"), site("elevation"))
-        rho = air_density(temp, pres)
-        nu = kinematic_viscosity(temp, pres)
-        snow = st("snow_cover")
-
-        # --- 2. sun and clouds ---------------------------------------------------------------
-        doy, hour = time_parts(block["time"].values - HALF_HOUR)
-        sin_el = solar_elevation_sine(doy[None, None, :], hour[None, None, :], site("latitude"),
-                                      site("longitude"))
-        n_meas = st("cloud_cover")
-        n_inf = eb.cloud_cover_from_radiation(k_down, sin_el)
-        cloud = np.where(~np.isnan(n_meas), n_meas, np.where(~np.isnan(n_inf), n_inf,
-                                                              opt.night_cloud_cover))
-        cloud_src = np.where(~np.isnan(n_meas), 0.0, np.where(~np.isnan(n_inf), 1.0, 2.0))
-
-        # --- 3. the wind mast's surface ----------------------------------------------------
-        met_names, z0_ms, d_m = _met_surface(
-            met_surf, [str(r) for r in met_surf["receptor"].values], opt)
-        d_m = d_m[:, None, None]
-        z_wind = site("wind_height")
-        met_water = np.isnan(z0_ms)[:, None, None]
-        z0_m = np.where(met_water, CHARNOCK_START_Z0, z0_ms[:, None, None]) + 0.0 * u
-        if met_water.any():
-            z0_w = CHARNOCK_START_Z0 + 0.0 * u
-            for _ in range(opt.charnock_iterations):
-                us_n = np.maximum(VON_KARMAN * u / np.log((z_wind - d_m) / z0_w), opt.ustar_floor)
-                z0_w = charnock_roughness(us_n, nu)
-            z0_m = np.where(met_water, z0_w, z0_m)
-        z_eff = np.maximum(z_wind - d_m, opt.ra_min_height_z0 * z0_m)
-        us_meas, h_meas = st("friction_velocity"), st("sensible_heat_flux")
-        has_us, has_h = ~np.isnan(us_meas), ~np.isnan(h_meas)
-        alb_m = np.array([eb.ALBEDO[m] for m in met_names])[:, None, None]
-        alpha_m = np.array([eb.PT_ALPHA[m] for m in met_names])[:, None, None]
-        alb_m = np.where(snow > 0.5, eb.SNOW_ALBEDO, alb_m)
-        h_pt_m = eb.sensible_heat_flux(eb.net_radiation(k_down, temp, cloud, alb_m), temp, pres,
-                                       alpha_m)
-        h_day = np.where(has_h, h_meas, h_pt_m)
-        day = h_day > 0
-        # the unstable solve only for the hours that use it (day, u* not measured): the
-        # same element-wise steps on fewer elements
-        solve = day & ~has_us
-        us_unst = np.full(solve.shape, np.nan)
-        if solve.any():
-            def sub(x):
-                return np.broadcast_to(x, solve.shape)[solve]
-            with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-                us_unst[solve], _ = eb.ustar_unstable(
-                    sub(u), sub(z_eff), sub(z0_m), sub(np.maximum(h_day, _MIN_DAY_FLUX)), sub(temp),
-                    sub(rho), opt.unstable_iterations)
-        theta_n = eb.theta_star_night(cloud)
-        us_st, theta_lim, limited = eb.ustar_stable(u, z_eff, z0_m, theta_n, temp)
-        us_m = np.where(has_us, us_meas, np.where(day, us_unst, us_st))
-        theta_m = np.where(has_us, theta_n, theta_lim)
-        h_m = np.where(has_h, h_meas, np.where(day, h_day, -rho * CP_DRY_AIR * us_m * theta_m))
-        method = np.where(has_us & has_h, 0.0, np.where(has_us, 1.0, np.where(
-            has_h & day, 2.0, np.where(day, 3.0, 4.0))))
-        ok = ~np.isnan(temp) & (has_us | ~np.isnan(u)) & (has_h | ~np.isnan(k_down))
-        theta_limited = limited & ~has_us & ~day & ok
-        us_m = np.where(ok, us_m, np.nan)
-        night = ~day & ~has_h & ok
-
-        # --- 4. receptors --------------------------------------------------------------------
-        z0_s, d_r = _receptor_roughness(surf, receptors, opt)
-        water = np.isnan(z0_s)[:, :, None]
-        d_r = d_r[:, :, None]
-        z0_r = np.where(water, CHARNOCK_START_Z0, z0_s[:, :, None])
-        zb = opt.blending_height
-        f_cor = coriolis_parameter(site("latitude"))
-
-        blend = receptor_transfers(surf, receptors, opt) == "blending_height"
-        blend = blend[:, :, None]
-
-        def transfer(z0_to, d_to):  # u* over the receptor (ustar_transfer, per receptor)
-            if not blend.any():
-                return transfer_ustar_drag_law(us_m, z0_m, z0_to, f_cor)
-            if blend.all():
-                return transfer_ustar(us_m, z0_m, d_m, z0_to, d_to, zb)
-            return np.where(blend, transfer_ustar(us_m, z0_m, d_m, z0_to, d_to, zb),
-                            transfer_ustar_drag_law(us_m, z0_m, z0_to, f_cor))
-        with np.errstate(invalid="ignore", divide="ignore"):
-            if water.any():
-                z0_w = CHARNOCK_START_Z0 + 0.0 * us_m
-                for _ in range(opt.charnock_iterations):
-                    us_w = np.maximum(transfer(z0_w, 0.0), opt.ustar_floor)
-                    z0_w = charnock_roughness(us_w, nu)
-                z0_r = np.where(water, z0_w, z0_r)
-            z0_r = z0_r + 0.0 * us_m
-            us_r = transfer(z0_r, d_r)
-            us_r, floor_used = apply_floor(us_r, opt.ustar_floor)
-            alb_r = np.where(snow > 0.5, eb.SNOW_ALBEDO, rec([eb.ALBEDO[r] for r in receptors]))
-            alpha_r = rec([eb.PT_ALPHA[r] for r in receptors])
-            h_pt_r = eb.sensible_heat_flux(eb.net_radiation(k_down, temp, cloud, alb_r), temp, pres,
-                                           alpha_r)
-            theta_r = -h_m / (rho * CP_DRY_AIR * us_m)
-            h_r = np.where(has_h, h_meas, np.where(day, h_pt_r, -rho * CP_DRY_AIR * us_r * theta_r))
-            h_r = np.where(water, 0.0, h_r)
-            h_r = np.where(np.isnan(us_r), np.nan, h_r)
-            inv_l = eb.inverse_obukhov(us_r, h_r, temp, rho)
-            z_ref, raised = reference_height(site("sampler_height"), d_r, z0_r,
-                                             opt.ra_min_height_z0)
-            ra = aerodynamic_resistance(z_ref, d_r, z0_r, us_r, inv_l)
-        ra, cap_used = apply_cap(ra, opt.ra_cap)
-        valid = ~np.isnan(us_r) & ~np.isnan(inv_l)
-        floor_used, cap_used = floor_used & valid, cap_used & valid
-
-        here = locals()
-        return {k: here[k] for k in _MICROMET_OUT}
+    def micromet(opt):  # steps 1-4 (workbench.drydep.micromet)
+        return _micromet.surface_layer(opt, block, surf, met_surf, receptors, st, site)
 
     rset = tuple(receptors)                  # a cache may serve several receptor sets
     m = _stage(cache, "micromet", micromet, opt, receptors=rset)
     (temp, u, rh, k_down, precip, pres, rho, snow, cloud, cloud_src, pressure_estimated, us_m,
      h_m, method, ok, theta_limited, night, us_r, floor_used, h_r, inv_l, z_ref, raised, ra,
-     cap_used, valid, z0_r) = (m[k] for k in _MICROMET_OUT)
+     cap_used, valid, z0_r) = (m[k] for k in _micromet.OUT)
 
     def season_wetness(opt):
         dew_rule = _wetness.resolve_dew_rule(opt.dew_rule, _gas.get_scheme(opt.gas_scheme))
@@ -431,7 +238,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     (cat, cat_src, wet, kind, wet_src) = (sw[k] for k in _STATE_OUT)
 
     # --- 6. gases and particles ---------------------------------------------------------------
-    coords = _coordinates(block, receptors)
+    coords = _blocks.coordinates(block, receptors)
     shape3 = (n_s, n_r, n_t)
 
     # plain Variables here, coordinates once at the end (a DataArray each cost ~2 ms)
@@ -536,7 +343,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         # each distinct mode once, all of them in one call (shared surface terms); the
         # mass weight of each mode per site (docs/methods_dry_particles.md 10.1)
         if particle_parts is None:
-            parts = _particle_parts(block, surf, opt)
+            parts = _blocks.particle_parts(block, surf, opt)
         else:  # found on every site of the call: this block's rows of the weights
             parts = {sp: ([(mode, w[rows]) for mode, w in pp[0]],) + tuple(pp[1:])
                      for sp, pp in particle_parts.items()}
@@ -560,7 +367,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             for mode, w in weights:
                 total = total + _fractions.broadcast_weight(w) * by_mode[mode]
             out[f"vd_{sp}"] = srt(total, "m s-1", f"mass-weighted dry deposition velocity of {sp} "
-                                  "(Zhang et al. 2001)", **_particle_attrs(
+                                  "(Zhang et al. 2001)", **_blocks.particle_attrs(
                                       (particle_parts or parts)[sp]))
 
     # --- assemble -----------------------------------------------------------------------------
@@ -602,86 +409,6 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
     return xr.Dataset(variables, coords=coords)
 
 
-def _particle_parts(block, surf, opt) -> dict:
-    """Mode weights of each particle species of `opt` at the sites of `block`
-    (:func:`workbench.drydep.particle_fractions.mode_weights`; weights [1] by site or
-    by site and hour, coarse fraction [1] and its source code by site)."""
-    def hourly(sp):  # (site, time) coarse fraction of the sampler [1], if given
-        name = f"coarse_fraction_{sp}"
-        return np.asarray(block[name].values, dtype=float) if name in block else None
-    return {sp: _fractions.mode_weights(surf, sp, opt, hourly(sp)) for sp in opt.particles}
-
-
-def _particle_attrs(part) -> dict:
-    """The attributes of ``vd_<species>`` from its mode weights (every site of the call)."""
-    weights, coarse, source = part
-    return {"coarse_fraction": coarse.tolist(),
-            "coarse_fraction_source": ", ".join(_fractions.SOURCE[int(k)] for k in source),
-            "modes": repr([(m, float(np.max(w))) for m, w in weights])}
-
-
-def _coordinates(block, receptors):
-    """Coordinates (site, receptor, time) of the result, reusing the block's indexes.
-
-    Building the pandas index of the hours again costs more than the rest of the
-    Dataset construction of a site-year; the block's own index is the same.
-    """
-    if not {"site", "time"} <= set(block.xindexes):
-        return {"site": block["site"].values, "receptor": receptors, "time": block["time"].values}
-    rec = xr.Coordinates({"receptor": receptors})
-    return xr.Coordinates(
-        {"site": block.variables["site"], "receptor": rec.variables["receptor"],
-         "time": block.variables["time"]},
-        indexes={"site": block.xindexes["site"], "receptor": rec.xindexes["receptor"],
-                 "time": block.xindexes["time"]})
-
-
-def _site_cuts(n_sites: int, per_site: int, n_threads: int) -> list:
-    """Slices of the sites for :func:`_hourly_site_blocks`: about
-    :data:`SITE_BLOCK_ELEMENTS` site-receptor-hours each, at least one per thread."""
-    size = max(1, SITE_BLOCK_ELEMENTS // max(per_site, 1))
-    size = min(size, -(-n_sites // n_threads))
-    return [slice(i, min(i + size, n_sites)) for i in range(0, n_sites, size)]
-
-
-def _hourly_site_blocks(aug, surf, opt, receptors, met_surf, n_threads) -> xr.Dataset:
-    """:func:`_hourly` (with the summaries) of the whole in-memory record, run in
-    blocks of whole sites on `n_threads` threads (:func:`workbench.threads.run_each`).
-
-    Every step of :func:`_hourly` works site by site (nothing looks across sites but
-    the particle modes' weights and attributes, found here on every site first), so
-    each element gets the same operations as in one call on all the sites: the same
-    numbers bit for bit, and the same attributes, for any number of threads.  Each
-    block copies its variables into the result (allocated by the first block to
-    finish) in site order; blocks run on the pool's threads, where the blockwise
-    steps of :func:`_hourly` stay on their thread.
-    """
-    n_s = aug.sizes["site"]
-    cuts = _site_cuts(n_s, len(receptors) * aug.sizes["time"], n_threads)
-    parts = _particle_parts(aug, surf, opt)
-    result = {}   # name -> xarray.Variable of every site, made by the first block to finish
-    lock = threading.Lock()
-
-    def task(i):
-        rows = cuts[i]
-        ds = _hourly(aug.isel(site=rows), surf.isel(site=rows), opt, receptors, None,
-                     met_surf.isel(site=rows), summaries=True, particle_parts=parts, rows=rows)
-        with lock:
-            if not result:
-                for name, v in ds.data_vars.items():
-                    result[name] = xr.Variable(
-                        v.dims, np.empty((n_s,) + v.shape[1:], dtype=v.dtype), v.attrs)
-        if list(ds.data_vars) != list(result):
-            raise RuntimeError("site blocks of the engine gave different variables")
-        for name, v in ds.data_vars.items():
-            if v.dims[0] != "site" or v.attrs != result[name].attrs:
-                raise RuntimeError(f"site blocks of the engine differ in {name!r}")
-            result[name].values[rows] = v.values
-
-    run_each(task, len(cuts), n_threads)
-    return xr.Dataset(result, coords=_coordinates(aug, receptors))
-
-
 def _summaries(variables, surf, receptors, opt) -> dict:
     """The (site, receptor) Variables of :func:`velocities`: d and the hours counted.
 
@@ -698,7 +425,7 @@ def _summaries(variables, surf, receptors, opt) -> dict:
     dict
         ``displacement_height`` [m], ``active`` [1] and the ``n_*`` counts [1].
     """
-    _, d_r = _receptor_roughness(surf, receptors, opt)
+    _, d_r = _receptors.receptor_roughness(surf, receptors, opt)
     extra = {
         "displacement_height": xr.Variable(("site", "receptor"), d_r,
                                            {"units": "m", "long_name": "displacement height"}),
@@ -833,8 +560,9 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         n_threads = threads_here()
         if (cache is None and n_threads > 1 and aug.sizes["site"] > 1
                 and aug.sizes["site"] * len(receptors) * aug.sizes["time"]
-                >= SITE_BLOCK_MIN_ELEMENTS):
-            hourly = _hourly_site_blocks(aug, surf, opt, receptors, met_surf, n_threads)
+                >= _blocks.SITE_BLOCK_MIN_ELEMENTS):
+            hourly = _blocks.hourly_site_blocks(_hourly, aug, surf, opt, receptors, met_surf,
+                                                n_threads)
         else:
             hourly = _hourly(aug, surf, opt, receptors, cache, met_surf, summaries=True)
     if lazy:  # the summaries over the whole record, then one constructor call
