@@ -92,10 +92,10 @@ MISSES = {
     ("drag_law", "wesely1989", "SO2", "forest"): "ridge conifer 0.48, farm deciduous 0.43: "
     "Wesely's Table 1 dry cuticle (and, for the deciduous stand, no stomata in categories 2-3; "
     "dry-hour Rc median 723 and 1018 s/m, dry-hour Vd 0.18 and 0.21 cm/s); wet hours (38 %, 29 %) give "
-    "0.96 cm/s; transcription checked (docs/methods_dry.md 9.2)",
+    "0.96 cm/s; equations and tables re-checked (docs/methods_dry.md 9.2)",
     ("drag_law", "zhang2003", "SO2", "forest"): "farm deciduous 0.49 (ridge conifer 0.96): "
     "Zhang's cuticle (1/u*) and in-canopy (1/u*^2) resistances at the landscape-scale u* "
-    "of 0.40 m/s, Rc median 210 s/m (153 under the blending height); transcription and "
+    "of 0.40 m/s, Rc median 210 s/m (153 under the blending height); equations, tables and "
     "leafless season checked (docs/methods_dry.md 9.2)",
     ("drag_law", "zhang2003", "HNO3", "forest"): "farm deciduous 1.83 (ridge conifer 2.81): "
     "mean Ra + Rb 61 s/m and Zhang's u*-dependent Rc median 28 s/m at the "
