@@ -15,13 +15,11 @@ import pandas as pd
 import pytest
 import xarray as xr
 
-from ui.demo_subset import write_demo_subset
+from ui.demo_subset import study_and_args, write_demo_subset
 from workbench.blocks import NO_VELOCITIES_NOTE, run_blocks, site_blocks
 from workbench.cli import build_parser, main
 from workbench.comparison import run as run_compared
 from workbench.optional import MissingExtraError
-from workbench.preflight import prepare
-from workbench.scenario import load_scenario
 from workbench.tables import summary_table
 from workbench.wet import samples_table
 
@@ -35,12 +33,7 @@ def scenario_file(tmp_path_factory):
 
 @pytest.fixture(scope="module")
 def setup(scenario_file):
-    sc = load_scenario(scenario_file)
-    study = prepare(sc).study
-    o, p = sc.options, sc.data["period"]
-    args = (o["wet"], o["dry"], o["budget"], sc.fixed_velocity, p["resolution"], p["start"],
-            p["end"])
-    return study, args
+    return study_and_args(scenario_file)
 
 
 @pytest.fixture(scope="module")
@@ -247,10 +240,9 @@ def test_met_store_read_per_block_in_process_and_by_workers(scenario_file, tmp_p
             assert ref == (tmp_path / run / name).read_bytes(), (run, name)
 
 
-def test_numpy_reduction_as_xarray_reindex_and_concat(setup):
-    """The reduction places each block on the network's receptors and stacks the blocks
-    with numpy: identical (values, dtypes, attributes) to xarray's reindex and concat."""
-    from workbench.blockreduce import _combine_attrs, _on_receptors, _reindexed, _stacked
+def _block_outs(setup, block_sites):
+    """The study, its receptors and the outputs of :func:`run_block` for each block of at
+    most `block_sites` sites asking for the same receptors."""
     from workbench.blocks import block_inputs, run_block, wanted_blocks
     study, args = setup
     kw = dict(zip(("wet_options", "dry_options", "budget_options", "fixed_velocity",
@@ -258,7 +250,15 @@ def test_numpy_reduction_as_xarray_reindex_and_concat(setup):
     receptors = study.receptors()
     outs = [run_block(block_inputs(study.inputs, sites), study.site_overrides,
                       {**kw, "receptors": recs})
-            for sites, recs in wanted_blocks(study.catalogue(), receptors, 1)]
+            for sites, recs in wanted_blocks(study.catalogue(), receptors, block_sites)]
+    return study, receptors, outs
+
+
+def test_numpy_reduction_as_xarray_reindex_and_concat(setup):
+    """The reduction places each block on the network's receptors and stacks the blocks
+    with numpy: identical (values, dtypes, attributes) to xarray's reindex and concat."""
+    from workbench.blockreduce import _combine_attrs, _on_receptors, _reindexed, _stacked
+    study, receptors, outs = _block_outs(setup, 1)
     parts = [o["budget"] for o in outs]
     assert any(list(p["receptor"].values) != receptors for p in parts)
     placed = [_on_receptors(p, receptors) for p in parts]
@@ -279,14 +279,7 @@ def test_blocks_assembled_in_place_as_concat_and_reorder(setup, reverse):
     """Each block placed straight at its sites (catalogue order) and on the network's
     receptors: identical to placing, concatenating and reordering with xarray."""
     from workbench.blockreduce import _assembled, _concat
-    from workbench.blocks import block_inputs, run_block, wanted_blocks
-    study, args = setup
-    kw = dict(zip(("wet_options", "dry_options", "budget_options", "fixed_velocity",
-                   "resolution", "start", "end"), args))
-    receptors = study.receptors()
-    outs = [run_block(block_inputs(study.inputs, sites), study.site_overrides,
-                      {**kw, "receptors": recs})
-            for sites, recs in wanted_blocks(study.catalogue(), receptors, 2)]
+    study, receptors, outs = _block_outs(setup, 2)
     order = list(SITES)[::-1] if reverse else list(SITES)
     for key, recs in (("budget", receptors), ("monthly", receptors), ("wet", None)):
         parts = [o[key] for o in outs]

@@ -12,9 +12,7 @@ import pandas as pd
 import pytest
 import xarray as xr
 
-from ui.demo_subset import write_demo_subset
-from workbench.preflight import prepare
-from workbench.scenario import load_scenario
+from ui.demo_subset import study_and_args, write_demo_subset
 from workbench.stages import WANTED_PAIRS_NOTE, _site_attrs, pair_groups
 from workbench.writers import velocities_dataset, write_budget_csv, write_summary_csv
 
@@ -23,12 +21,8 @@ SITES = ("ridge", "fell", "mere", "farm")
 
 @pytest.fixture(scope="module")
 def setup(tmp_path_factory):
-    sc = load_scenario(write_demo_subset(tmp_path_factory.mktemp("pairs"), SITES, 2021, 2021))
-    study = prepare(sc).study
-    o, p = sc.options, sc.data["period"]
-    args = (o["wet"], o["dry"], o["budget"], sc.fixed_velocity, p["resolution"], p["start"],
-            p["end"])
-    return study, args
+    return study_and_args(write_demo_subset(tmp_path_factory.mktemp("pairs"), SITES, 2021,
+                                            2021))
 
 
 @pytest.fixture(scope="module")

@@ -19,20 +19,15 @@ import pandas as pd
 import xarray as xr
 
 from .pipeline import Result
+from .stages import fill_value
 from .tables import budget_table, span_table
-
-def _fill_value(dtype):
-    """The value of a (site, receptor) pair a block has no receptor for."""
-    kind = np.dtype(dtype).kind
-    return {"f": np.nan, "c": np.nan, "b": False, "i": 0, "u": 0, "M": np.datetime64("NaT"),
-            "m": np.timedelta64("NaT")}.get(kind, "")
 
 
 def _on_receptors(ds, receptors):
     """`ds` on the network's receptor axis (a block has its own sites' receptors only).
 
     The variables on ``receptor`` are placed into arrays of the network's receptors
-    (filled by :func:`_fill_value`, dtypes kept) with numpy: ``Dataset.reindex`` of
+    (filled by :func:`workbench.stages.fill_value`, dtypes kept) with numpy: ``Dataset.reindex`` of
     every block cost about a second per 100 site-years."""
     if ds is None or "receptor" not in ds.dims:
         return ds
@@ -49,7 +44,7 @@ def _on_receptors(ds, receptors):
         ax = v.dims.index("receptor")
         shape = list(v.shape)
         shape[ax] = len(receptors)
-        full = np.full(shape, _fill_value(v.dtype), dtype=v.dtype)
+        full = np.full(shape, fill_value(v.dtype), dtype=v.dtype)
         where = [slice(None)] * v.ndim
         where[ax] = pos
         full[tuple(where)] = v.values
@@ -63,7 +58,7 @@ def _on_receptors(ds, receptors):
 
 
 def _reindexed(ds, receptors):
-    fill = {v: _fill_value(ds[v].dtype) for v in ds.data_vars if "receptor" in ds[v].dims}
+    fill = {v: fill_value(ds[v].dtype) for v in ds.data_vars if "receptor" in ds[v].dims}
     out = ds.reindex(receptor=list(receptors), fill_value=fill)
     for v in fill:                      # reindex widens bool and int; keep the dtypes
         if out[v].dtype != ds[v].dtype and ds[v].dtype.kind in "biu":
@@ -216,7 +211,7 @@ def _assembled(parts, receptors, sites):
         dtype = np.result_type(*[x.dtype for x in vs])
         shape = [len(order) if d == "site" else (len(rec) if d == "receptor" and rec else s)
                  for d, s in zip(v.dims, v.shape)]
-        out = np.full(shape, _fill_value(dtype), dtype=dtype)
+        out = np.full(shape, fill_value(dtype), dtype=dtype)
         for p, x, rp, sid in zip(parts, vs, rec_pos, ids):
             axes = [index.get_indexer(sid.astype(str)) if d == "site" else
                     (rp if d == "receptor" and rp is not None else np.arange(s))

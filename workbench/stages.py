@@ -175,8 +175,9 @@ def _site_attrs(attrs, part_sites, sites) -> dict:
     return out
 
 
-def _fill(dtype):
-    """The value of a pair that is not computed: NaN, False, 0 or NaT by dtype."""
+def fill_value(dtype):
+    """The value of a (site, receptor) pair that is not computed (a pair no site asks
+    for, or a receptor a block does not have): NaN, False, 0 or NaT by dtype."""
     kind = np.dtype(dtype).kind
     return {"f": np.nan, "c": np.nan, "b": False, "i": 0, "u": 0,
             "M": np.datetime64("NaT"), "m": np.timedelta64("NaT")}.get(kind, "")
@@ -237,7 +238,7 @@ def wanted_pairs(o, sites, receptors, **parts):
         a = np.empty(shape, dtype=v.dtype)          # every element written once below
         axes = [v.dims.index(d) for d in ("site", "receptor") if d in v.dims]
         view = np.moveaxis(a, axes, range(len(axes)))          # (site[, receptor], ...)
-        view[~(covered if len(axes) == 2 else covered.any(axis=1))] = _fill(v.dtype)
+        view[~(covered if len(axes) == 2 else covered.any(axis=1))] = fill_value(v.dtype)
         for p, w in zip(parts, where):
             pv = p.variables[name]
             got = np.moveaxis(np.asarray(pv.transpose(*v.dims).values), axes,

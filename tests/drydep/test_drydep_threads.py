@@ -37,16 +37,22 @@ def _reset(monkeypatch):
     workbench.set_threads(None)
 
 
-@pytest.mark.parametrize("scheme", ["wesely1989", "zhang2003"])
-def test_one_two_three_threads_give_the_same_numbers(site_year, scheme):
-    met, surf = site_year
-    opt = DryOptions(gas_scheme=scheme)
+def _on_threads(met, surf, opt) -> dict:
+    """The velocities of `met` on `surf` computed on 1, 2 and 3 threads."""
     runs = {}
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", RuntimeWarning)
         for n in (1, 2, 3):
             workbench.set_threads(n)
             runs[n] = velocities(met, surf, opt)
+    return runs
+
+
+@pytest.mark.parametrize("scheme", ["wesely1989", "zhang2003"])
+def test_one_two_three_threads_give_the_same_numbers(site_year, scheme):
+    met, surf = site_year
+    opt = DryOptions(gas_scheme=scheme)
+    runs = _on_threads(met, surf, opt)
     cells = met.sizes["time"] * surf.sizes["receptor"]
     shape = (1, surf.sizes["receptor"], met.sizes["time"])
     on_one = len(list(_array.block_slices(shape, _array.block_size(1))))
@@ -94,12 +100,7 @@ def test_site_blocks_on_threads_give_the_same_numbers_and_attributes(network, sc
     monkeypatch.setattr(siteblocks, "hourly_site_blocks",
                         lambda *a: calls.append(a[-1]) or blocks(*a))
     opt = DryOptions(gas_scheme=scheme)
-    runs = {}
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", RuntimeWarning)
-        for n in (1, 2, 3):
-            workbench.set_threads(n)
-            runs[n] = velocities(met, surf, opt)
+    runs = _on_threads(met, surf, opt)
     assert calls == [2, 3]             # one thread: one call on every site, as before
     one = runs[1]
     assert one["vd_pSO4"].attrs["coarse_fraction"][0] == 0.2

@@ -63,3 +63,15 @@ def write_demo_subset(out_dir, sites=("ridge",), first_year=2021, last_year=2021
                         f'end = "{last_year + 1}-01-01"')
     (out / "scenario.toml").write_text(text, encoding="utf-8")
     return out / "scenario.toml"
+
+
+def study_and_args(scenario_file):
+    """The prepared :class:`workbench.pipeline.Study` of `scenario_file` and the
+    positional arguments of its ``Study.run`` (options, fixed Vd, resolution, period)."""
+    from workbench.preflight import prepare
+    from workbench.scenario import load_scenario
+    sc = load_scenario(scenario_file)
+    o, p = sc.options, sc.data["period"]
+    args = (o["wet"], o["dry"], o["budget"], sc.fixed_velocity, p["resolution"], p["start"],
+            p["end"])
+    return prepare(sc).study, args

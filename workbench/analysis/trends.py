@@ -260,8 +260,9 @@ def _dl_note(notes, site, element, pathway, species):
     return "; ".join(notes[(site, n)] for n in names if (site, n) in notes)
 
 
-def _row(key, series, variant, years, r, min_years, median, excluded, dl):
-    valid = r.n >= min_years
+def _note(variant, valid, min_years, excluded, dl) -> str:
+    """The note of one trend row: the values used, too few years, what was left out and
+    the detection-limit note."""
     note = [f"values: {variant.replace('_', ' ')}"]
     if not valid:
         note.append(f"fewer than {min_years} complete years")
@@ -269,13 +270,19 @@ def _row(key, series, variant, years, r, min_years, median, excluded, dl):
         note.append(excluded)
     if dl:
         note.append(dl)
+    return "; ".join(note)
+
+
+def _row(key, series, variant, years, r, min_years, median, excluded, dl):
+    valid = r.n >= min_years
     pct = 100.0 * r.slope / median if median and np.isfinite(median) and median != 0 else np.nan
     return {**dict(zip(KEYS, key)), "series": series, "n_years": r.n,
             "first_year": int(min(years)) if len(years) else None,
             "last_year": int(max(years)) if len(years) else None,
             "test": "mann_kendall" if series == "annual" else "seasonal_kendall_hirsch_slack",
             "tau": r.tau, "p_value": r.p_value, "sen_slope_per_yr": r.slope,
-            "sen_slope_pct_per_yr": pct, "valid": bool(valid), "note": "; ".join(note),
+            "sen_slope_pct_per_yr": pct, "valid": bool(valid),
+            "note": _note(variant, valid, min_years, excluded, dl),
             "values": variant, "s": r.s, "var_s": r.var_s, "z": r.z,
             "slope_low_per_yr": r.slope_low, "slope_high_per_yr": r.slope_high,
             "intercept": r.intercept, "unit": "kg ha-1 yr-1"}
@@ -333,16 +340,8 @@ def _table_rows(keys, series, stats_by_variant, min_years, excluded, dl) -> dict
     variant = np.tile(np.asarray(variants, dtype=object), n_keys)
     exc = order(excluded)
     dl_rep = np.repeat(np.asarray(dl, dtype=object), len(variants))
-    notes = []
-    for va, ok, ex, d in zip(variant.tolist(), valid.tolist(), exc.tolist(), dl_rep.tolist()):
-        note = [f"values: {va.replace('_', ' ')}"]
-        if not ok:
-            note.append(f"fewer than {min_years} complete years")
-        if ex:
-            note.append(ex)
-        if d:
-            note.append(d)
-        notes.append("; ".join(note))
+    notes = [_note(va, ok, min_years, ex, d) for va, ok, ex, d in
+             zip(variant.tolist(), valid.tolist(), exc.tolist(), dl_rep.tolist())]
     med = st["median"]
     with np.errstate(invalid="ignore", divide="ignore"):
         pct = np.where(np.isfinite(med) & (med != 0), 100.0 * st["slope"] / np.where(
