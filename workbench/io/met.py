@@ -1,4 +1,4 @@
-"""Reader of hourly meteorology (CSV, or NetCDF through xarray).
+"""Reader of hourly meteorology (CSV, or NetCDF or zarr through xarray).
 
 Returns a Dataset on (``site``, ``time``) with one common hourly axis, ``time`` being
 the END of each hour in UTC (see docs/data_model.md), and a ledger.  Values that fail
@@ -40,7 +40,8 @@ def read_met(path, catalogue):
     path : str or Path
         CSV (optionally gzipped) with ``site, time`` and the variables of
         :data:`MET_VARIABLES` (units in the headers), or a NetCDF file with dims
-        (site, time) and ``units`` attributes.
+        (site, time) and ``units`` attributes, or a zarr store of the same layout (a
+        folder ``met.zarr`` or a zipped ``met.zarr.zip``; :mod:`workbench.io.metzarr`).
     catalogue : SiteCatalogue
 
     Returns
@@ -53,6 +54,10 @@ def read_met(path, catalogue):
     path = Path(path)
     if path.suffix in (".nc", ".nc4", ".netcdf"):
         return _read_met_netcdf(path, catalogue)
+    from .zarrstore import is_zarr_path
+    if is_zarr_path(path):                  # a zarr store: a folder or a .zarr.zip
+        from .metzarr import read_met_zarr
+        return read_met_zarr(path, catalogue)
     from .metfast import read_met_csv_fast
     fast = read_met_csv_fast(path, catalogue)
     if fast is not None:        # else a file the line-by-line reader below must judge
@@ -243,7 +248,9 @@ def _netcdf_units(raw, path):
     return raw_units
 
 
-def _netcdf_body(raw, path, catalogue):
+def _netcdf_body(raw, path, catalogue, group_sites=None):
+    """Read, check and store `raw` (opened lazily) a group of whole sites at a time;
+    `group_sites` sites per group (default: :data:`NETCDF_GROUP_RECORDS` records)."""
     from .ledger import CODED_ABOVE, CodedRows
     from .metstore import MetStore, grid_rows, load_small
     from .metvars import met_attrs
@@ -278,7 +285,7 @@ def _netcdf_body(raw, path, catalogue):
     texts, gaps = {}, {}
     kept_sites = np.zeros(n_s, bool)
     lo_t, hi_t = n_grid, -1
-    step = max(1, NETCDF_GROUP_RECORDS // n_t)
+    step = group_sites or max(1, NETCDF_GROUP_RECORDS // n_t)
     for k0 in range(0, n_s, step):
         k1 = min(n_s, k0 + step)
         values = {}
