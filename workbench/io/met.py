@@ -248,6 +248,17 @@ def _netcdf_units(raw, path):
     return raw_units
 
 
+def read_values(var, path, name):
+    """The values of a lazily read variable, or the located error of a damaged file."""
+    try:
+        return var.values
+    except Exception as exc:  # codecs and engines raise many error types
+        first = str(exc).strip().splitlines()[0][:160] if str(exc).strip() else ""
+        raise InputError(f"cannot read the values ({type(exc).__name__}: {first})", file=path,
+                         column=name, expected="values the format can decode (the file or "
+                         "store may be damaged or half-copied)") from None
+
+
 def _netcdf_body(raw, path, catalogue, group_sites=None):
     """Read, check and store `raw` (opened lazily) a group of whole sites at a time;
     `group_sites` sites per group (default: :data:`NETCDF_GROUP_RECORDS` records)."""
@@ -291,7 +302,8 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
         values = {}
         for name in names:
             target = MET_VARIABLES[name][0]
-            v = raw[name].isel(site=slice(k0, k1)).transpose("site", "time").values
+            v = read_values(raw[name].isel(site=slice(k0, k1)).transpose("site", "time"),
+                            path, name)
             values[name] = convert_met(v.astype(float).reshape(-1), str(raw_units[name]), name,
                                        target)
         sites = np.repeat(ids[k0:k1].astype(object), n_t)

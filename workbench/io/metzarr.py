@@ -83,7 +83,7 @@ def plan(raw, names, n_s, n_t, group_records):
     return None, chunks, notes
 
 
-def _site_major_copy(raw, names, chunks, folder):
+def _site_major_copy(raw, names, chunks, folder, path):
     """The variables `names` copied chunk by chunk into (site, time) ``.npy`` files,
     as a lazily indexed Dataset with the store's coordinates and attributes."""
     n_s, n_t = raw.sizes["site"], raw.sizes["time"]
@@ -96,7 +96,8 @@ def _site_major_copy(raw, names, chunks, folder):
         cs, ct = chunks[name]
         for s0 in range(0, n_s, cs):
             for t0 in range(0, n_t, ct):
-                block = var.isel(site=slice(s0, s0 + cs), time=slice(t0, t0 + ct)).values
+                block = _met.read_values(var.isel(site=slice(s0, s0 + cs),
+                                                  time=slice(t0, t0 + ct)), path, name)
                 m = np.load(file, mmap_mode="r+")
                 m[s0:s0 + cs, t0:t0 + ct] = block
                 del m, block                    # unmapped: written back by the kernel
@@ -143,7 +144,7 @@ def read_met_zarr(path, catalogue):
         else:
             folder = tempfile.mkdtemp(prefix="workbench-zarr-")
             try:
-                copy = _site_major_copy(raw, names, chunks, folder)
+                copy = _site_major_copy(raw, names, chunks, folder, path)
                 ds, ledger = _met._netcdf_body(copy, path, catalogue)
             finally:
                 shutil.rmtree(folder, ignore_errors=True)
