@@ -50,7 +50,7 @@ def _open(path: Path, role: str, notes=None) -> xr.Dataset:
     """The grid file (NetCDF) or store (zarr, :mod:`workbench.io.zarrstore`), lazily."""
     if is_zarr_path(path):
         try:
-            ds, more = open_zarr(path, role)
+            ds, more = open_zarr(path, role, check_consolidated=notes is not None)
         except InputError as e:
             raise GridError(e.problem, file=e.file, column=e.column, value=e.value,
                             expected=e.expected) from None

@@ -92,6 +92,22 @@ def test_zarr_as_netcdf_whatever_the_chunks(demo_met, tmp_path, monkeypatch, chu
     assert got[0].attrs["source_file"] == str(p)
 
 
+def test_format_2_store_and_a_single_level_dimension(demo_met, tmp_path):
+    """A zarr format 2 store (consolidated, .zmetadata) whose wind has a height
+    dimension of one level: read as the NetCDF file of the same content."""
+    met, _, cat = demo_met
+    met = met.copy()
+    met["wind_speed"] = met["wind_speed"].expand_dims(height=[10.0], axis=1)
+    met.to_netcdf(tmp_path / "met.nc", engine="scipy")
+    p = to_zarr(met.chunk({"site": 2}), tmp_path / "met.zarr", zarr_format=2)
+    assert (p / ".zmetadata").is_file() and not (p / "zarr.json").exists()
+    got = read_met(p, cat)
+    assert got[1].notes[-1] == "met.zarr: single-level dimension dropped from wind_speed (height)"
+    ref = read_met(tmp_path / "met.nc", cat)
+    ref[1].notes[-1] = ref[1].notes[-1].replace("met.nc", "met.zarr")
+    _same_as_netcdf(got, ref)
+
+
 @pytest.mark.parametrize("inside_folder", [False, True])
 def test_zipped_store_as_the_folder(demo_met, tmp_path, inside_folder):
     met, folder, cat = demo_met
@@ -255,14 +271,15 @@ def test_missing_units_attribute(demo_met, tmp_path):
                              "expected a CF 'units' attribute convertible to Pa")
 
 
-def test_units_added_after_consolidation_are_read(demo_met, tmp_path):
+@pytest.mark.parametrize("fmt", [2, 3])
+def test_units_added_after_consolidation_are_read(demo_met, tmp_path, fmt):
     """Units written into the array after the store was consolidated: the array's own
     metadata are read (not the stale copy), and a note says the copy is out of date."""
     met, folder, cat = demo_met
     bad = met.copy()
     bad["pressure"] = bad["pressure"].copy()
     bad["pressure"].attrs.pop("units")
-    p = to_zarr(bad, tmp_path / "met.zarr", consolidated=True)
+    p = to_zarr(bad, tmp_path / "met.zarr", consolidated=True, zarr_format=fmt)
     zarr.open_array(str(p / "pressure"), mode="r+").attrs["units"] = "Pa"
     got = read_met(p, cat)
     assert got[1].notes[-1] == ("met.zarr: consolidated metadata out of date for pressure; "
@@ -300,9 +317,10 @@ def test_oddly_chunked_variable_is_read_with_a_note(demo_met, tmp_path, monkeypa
     _same_as_netcdf(got, read_met(folder / "met.nc", cat), zarr_notes=1)
 
 
-def test_store_without_consolidated_metadata(demo_met, tmp_path):
+@pytest.mark.parametrize("fmt", [2, 3])
+def test_store_without_consolidated_metadata(demo_met, tmp_path, fmt):
     met, folder, cat = demo_met
-    p = to_zarr(met, tmp_path / "met.zarr", consolidated=False)
+    p = to_zarr(met, tmp_path / "met.zarr", consolidated=False, zarr_format=fmt)
     with warnings.catch_warnings():
         warnings.simplefilter("error")
         got = read_met(p, cat)

@@ -46,7 +46,8 @@ def is_zarr_path(path) -> bool:
 
 
 class _Files:
-    """The files of a store folder or zip (names relative to the store's root)."""
+    """The files of a store folder or zip, by name relative to the store's root (a
+    folder is not listed whole: a store may hold many thousand chunk files)."""
 
     def __init__(self, path: Path):
         self.path = path
@@ -55,22 +56,41 @@ class _Files:
         if self.zipped:
             with zipfile.ZipFile(path) as z:
                 names = [n for n in z.namelist() if not n.endswith("/")]
-            self.all = names
             tops = {n.split("/", 1)[0] for n in names if "/" in n}
             if not any(n in names for n in _GROUP_FILES) and len(tops) == 1:
                 top = tops.pop()         # zipped with its folder: "met.zarr/zarr.json"
                 if any(f"{top}/{g}" in names for g in _GROUP_FILES):
                     self.prefix = top
             cut = len(self.prefix) + 1 if self.prefix else 0
-            self.names = [n[cut:] for n in names if n.startswith(self.prefix)]
-        else:
-            self.names = [p.relative_to(path).as_posix() for p in sorted(path.rglob("*"))
-                          if p.is_file()]
-            self.all = self.names
+            self._zip_all = names
+            self._zip = {n[cut:] for n in names if n.startswith(self.prefix)}
+
+    def has(self, name) -> bool:
+        """True when the store holds the file `name`."""
+        return name in self._zip if self.zipped else (self.path / name).is_file()
+
+    def some(self, limit=2000) -> list:
+        """Up to `limit` file names of the folder or zip (for messages), sorted."""
+        if self.zipped:
+            return sorted(self._zip_all)[:limit]
+        out = []
+        for p in self.path.rglob("*"):
+            if p.is_file():
+                out.append(p.relative_to(self.path).as_posix())
+                if len(out) >= limit:
+                    break
+        return sorted(out)
+
+    def arrays(self, marker) -> set:
+        """Names of the top-level arrays (folders holding the metadata file `marker`)."""
+        if self.zipped:
+            return {n.split("/")[0] for n in self._zip
+                    if n.count("/") == 1 and n.endswith("/" + marker)}
+        return {p.name for p in self.path.iterdir() if (p / marker).is_file()}
 
     def read_json(self, name):
         """The JSON document `name` of the store, or None."""
-        if name not in self.names:
+        if not self.has(name):
             return None
         try:
             if self.zipped:
@@ -86,12 +106,13 @@ class _Files:
 def _not_a_store(path: Path, files: _Files, role: str):
     """The located error of a folder or zip that holds no zarr group."""
     kind = "zip file" if files.zipped else "folder"
-    if any(n in files.names for n in _ARRAY_FILES) or (
+    if any(files.has(n) for n in _ARRAY_FILES) or (
             files.read_json("zarr.json") or {}).get("node_type") == "array":
-        return InputError(f"a single zarr array, not a store of variables", file=path,
+        return InputError("a single zarr array, not a store of variables", file=path,
                           expected=f"a zarr group holding the {role} variables (as "
                           "xarray's Dataset.to_zarr writes it)")
-    tables = [n for n in files.all if n.lower().endswith((".csv", ".csv.gz", ".txt"))]
+    listed = files.some()
+    tables = [n for n in listed if n.lower().endswith((".csv", ".csv.gz", ".txt"))]
     if tables:
         shown = ", ".join(tables[:3]) + (f" and {len(tables) - 3} more" if len(tables) > 3
                                          else "")
@@ -99,7 +120,7 @@ def _not_a_store(path: Path, files: _Files, role: str):
                           expected="a zarr store (zarr.json or .zgroup at its root, as "
                           "xarray's Dataset.to_zarr writes it), or the path of one CSV file "
                           "(e.g. met = \"folder/met.csv\")")
-    shown = ", ".join(files.all[:3]) or "nothing"
+    shown = ", ".join(listed[:3]) or "nothing"
     return InputError(f"a {kind} that is not a zarr store (no zarr.json or .zgroup at its "
                       "root)", file=path, value=shown,
                       expected="a zarr store as xarray's Dataset.to_zarr writes it")
@@ -111,24 +132,22 @@ def consolidation_note(path: Path, files: _Files) -> str | None:
     root = files.read_json("zarr.json")
     if root is not None:                                    # zarr format 3
         meta = (root.get("consolidated_metadata") or {}).get("metadata")
-        own = {k: files.read_json(f"{k}/zarr.json") for k in (meta or {})}
-        own = {k: (v or {}).get("attributes", {}) for k, v in own.items()}
-        cons = {k: (v or {}).get("attributes", {}) for k, v in (meta or {}).items()}
-        arrays = {n.rsplit("/", 1)[0] for n in files.names
-                  if n.endswith("/zarr.json") and n.count("/") == 1}
+        cons = {k: (v or {}).get("attributes", {}) for k, v in (meta or {}).items()
+                if "/" not in k}
+        own = {k: (files.read_json(f"{k}/zarr.json") or {}).get("attributes", {})
+               for k in cons}
+        arrays = files.arrays("zarr.json")
     else:                                                   # zarr format 2
-        zmeta = files.read_json(".zmetadata")
-        meta = (zmeta or {}).get("metadata")
-        keys = [k[:-len("/.zattrs")] for k in (meta or {}) if k.endswith("/.zattrs")]
+        meta = (files.read_json(".zmetadata") or {}).get("metadata")
+        keys = [k[:-len("/.zattrs")] for k in (meta or {})
+                if k.endswith("/.zattrs") and k.count("/") == 1]
         cons = {k: meta[f"{k}/.zattrs"] for k in keys}
         own = {k: files.read_json(f"{k}/.zattrs") or {} for k in keys}
-        arrays = {n.rsplit("/", 1)[0] for n in files.names
-                  if n.endswith("/.zarray") and n.count("/") == 1}
+        arrays = files.arrays(".zarray")
     if meta is None:
         return (f"{path.name}: no consolidated metadata; each array's own metadata read "
                 "(as fast on a local disk; zarr.consolidate_metadata adds them)")
-    listed = {k for k in cons if "/" not in k}
-    differ = sorted((arrays ^ listed) | {k for k in listed & arrays if cons[k] != own.get(k)})
+    differ = sorted((arrays ^ set(cons)) | {k for k in set(cons) & arrays if cons[k] != own[k]})
     if differ:
         return (f"{path.name}: consolidated metadata out of date for {', '.join(differ)}; "
                 "the arrays' own metadata read (zarr.consolidate_metadata refreshes them)")
@@ -144,7 +163,8 @@ def _zarr_store(path: Path, files: _Files):
     return zip_store(str(path), mode="r")
 
 
-def open_zarr(path, role: str = "met") -> tuple[xr.Dataset, list]:
+def open_zarr(path, role: str = "met", check_consolidated: bool = True
+              ) -> tuple[xr.Dataset, list]:
     """Open a zarr store lazily (no dask, no values read but the coordinates).
 
     Parameters
@@ -154,6 +174,8 @@ def open_zarr(path, role: str = "met") -> tuple[xr.Dataset, list]:
         top-level folder).
     role : str
         What the store should hold, for the messages ("met", "air", "land_use").
+    check_consolidated : bool
+        Compare the consolidated metadata with the arrays' own (False: no note).
 
     Returns
     -------
@@ -176,7 +198,7 @@ def open_zarr(path, role: str = "met") -> tuple[xr.Dataset, list]:
                          expected="a folder written by xarray's Dataset.to_zarr, or that "
                          "folder's content zipped (.zarr.zip)")
     files = _Files(path)
-    if not any(n in files.names for n in _GROUP_FILES) or \
+    if not any(files.has(n) for n in _GROUP_FILES) or \
             (files.read_json("zarr.json") or {}).get("node_type") == "array":
         raise _not_a_store(path, files, role)
     if importlib.util.find_spec("zarr") is None:
@@ -205,5 +227,5 @@ def open_zarr(path, role: str = "met") -> tuple[xr.Dataset, list]:
                 backend_close()
             store.close()
         ds.set_close(close)
-    note = consolidation_note(path, files)
+    note = consolidation_note(path, files) if check_consolidated else None
     return ds, [note] if note else []
