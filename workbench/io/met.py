@@ -56,7 +56,6 @@ def read_met(path, catalogue):
         return _read_met_netcdf(path, catalogue)
     from .zarrstore import is_zarr_path
     if is_zarr_path(path):                  # a zarr store: a folder or a .zarr.zip
-        from .metzarr import read_met_zarr
         return read_met_zarr(path, catalogue)
     from .metfast import read_met_csv_fast
     fast = read_met_csv_fast(path, catalogue)
@@ -359,4 +358,59 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
     if squeezed:
         ledger.notes.append(f"{path.name}: single-level dimension dropped from "
                             + ", ".join(squeezed))
+    return ds, ledger
+
+
+def read_met_zarr(path, catalogue):
+    """Read hourly met from a zarr store, held to the NetCDF rules (how the chunks are
+    read: :mod:`workbench.io.metzarr`).
+
+    Parameters
+    ----------
+    path : str or Path
+        A store folder (``met.zarr``) or a zipped store (``met.zarr.zip``) with dims
+        (site, time), a ``site`` coordinate of catalogue ids, a CF time coordinate and a
+        ``units`` attribute on each variable (docs/data_formats.md, section 4).
+    catalogue : SiteCatalogue
+
+    Returns
+    -------
+    met : xarray.Dataset
+        Dims (site, time); SI units, as :func:`read_met`.
+    ledger : Ledger
+        One row per record of the (site, time) grid (its "line" the 1-based record
+        number, site-major); notes on gaps, dropped single levels, chunks and the
+        consolidated metadata.
+
+    Raises
+    ------
+    InputError
+        Naming the store, the variable, the value and what was expected.
+    """
+    import shutil
+    import tempfile
+    from .metzarr import plan, site_major_copy
+    from .zarrstore import open_zarr
+    path = Path(path)
+    raw, notes = open_zarr(path, "met")
+    with raw:
+        squeezed, _ = _netcdf_layout(raw, path, catalogue)
+        names = list(_netcdf_units(raw, path))
+        step, chunks, chunk_notes = plan(raw, names, raw.sizes["site"], raw.sizes["time"],
+                                         NETCDF_GROUP_RECORDS)
+        if step is not None:       # chunks of at most a group's sites: read directly
+            ds, ledger = _netcdf_body(raw, path, catalogue, group_sites=step)
+        else:                      # larger chunks: each read once into a site-major copy
+            folder = tempfile.mkdtemp(prefix="workbench-zarr-")
+            try:
+                copy = site_major_copy(raw, names, chunks, folder,
+                                       lambda var, name: read_values(var, path, name))
+                ds, ledger = _netcdf_body(copy, path, catalogue)
+            finally:
+                shutil.rmtree(folder, ignore_errors=True)
+    if squeezed:
+        ledger.notes.append(f"{path.name}: single-level dimension dropped from "
+                            + ", ".join(squeezed))
+    ledger.notes.extend(f"{path.name}: {n}" for n in chunk_notes)
+    ledger.notes.extend(notes)
     return ds, ledger

@@ -1,4 +1,5 @@
-"""Hourly met from a zarr store, held to the rules of the NetCDF met (docs/data_formats.md).
+"""How hourly met is read from a zarr store (:func:`workbench.io.met.read_met_zarr`),
+held to the rules of the NetCDF met (docs/data_formats.md, section 4).
 
 The layout, units and checks are those of :func:`workbench.io.met._read_met_netcdf`
 (dims ``site`` and ``time``, a ``site`` coordinate of catalogue ids, a decoded CF time,
@@ -19,17 +20,13 @@ depends on them (:func:`plan`).
 """
 from __future__ import annotations
 
-import shutil
-import tempfile
 from pathlib import Path
 
 import numpy as np
 import xarray as xr
 from xarray.core import indexing
 
-from . import met as _met
 from .metstore import StoreArray
-from .zarrstore import open_zarr
 
 #: A chunk larger than this is named in a note: reading it holds it whole [byte].
 LARGE_CHUNK_BYTES = 256 << 20
@@ -83,9 +80,10 @@ def plan(raw, names, n_s, n_t, group_records):
     return None, chunks, notes
 
 
-def _site_major_copy(raw, names, chunks, folder, path):
-    """The variables `names` copied chunk by chunk into (site, time) ``.npy`` files,
-    as a lazily indexed Dataset with the store's coordinates and attributes."""
+def site_major_copy(raw, names, chunks, folder, read):
+    """The variables `names` copied chunk by chunk into (site, time) ``.npy`` files in
+    `folder`, as a lazily indexed Dataset with the store's coordinates and attributes;
+    ``read(var, name)`` gives a piece's values (or the located error)."""
     n_s, n_t = raw.sizes["site"], raw.sizes["time"]
     dvars = {}
     for name in names:
@@ -96,8 +94,8 @@ def _site_major_copy(raw, names, chunks, folder, path):
         cs, ct = chunks[name]
         for s0 in range(0, n_s, cs):
             for t0 in range(0, n_t, ct):
-                block = _met.read_values(var.isel(site=slice(s0, s0 + cs),
-                                                  time=slice(t0, t0 + ct)), path, name)
+                block = read(var.isel(site=slice(s0, s0 + cs), time=slice(t0, t0 + ct)),
+                             name)
                 m = np.load(file, mmap_mode="r+")
                 m[s0:s0 + cs, t0:t0 + ct] = block
                 del m, block                    # unmapped: written back by the kernel
@@ -105,52 +103,3 @@ def _site_major_copy(raw, names, chunks, folder, path):
         dvars[name] = xr.Variable(("site", "time"), arr, dict(raw[name].attrs))
     return xr.Dataset(dvars, coords={"site": raw["site"].variable, "time": raw["time"].variable},
                       attrs=dict(raw.attrs))
-
-
-def read_met_zarr(path, catalogue):
-    """Read hourly met from a zarr store.
-
-    Parameters
-    ----------
-    path : str or Path
-        A store folder (``met.zarr``) or a zipped store (``met.zarr.zip``) with dims
-        (site, time), a ``site`` coordinate of catalogue ids, a CF time coordinate and a
-        ``units`` attribute on each variable (docs/data_formats.md, section 4).
-    catalogue : SiteCatalogue
-
-    Returns
-    -------
-    met : xarray.Dataset
-        Dims (site, time); SI units, as :func:`workbench.io.met.read_met`.
-    ledger : Ledger
-        One row per record of the (site, time) grid (its "line" the 1-based record
-        number, site-major); notes on gaps, dropped single levels, chunks and the
-        consolidated metadata.
-
-    Raises
-    ------
-    InputError
-        Naming the store, the variable, the value and what was expected.
-    """
-    path = Path(path)
-    raw, notes = open_zarr(path, "met")
-    with raw:
-        squeezed, _ = _met._netcdf_layout(raw, path, catalogue)
-        names = list(_met._netcdf_units(raw, path))
-        n_s, n_t = raw.sizes["site"], raw.sizes["time"]
-        step, chunks, chunk_notes = plan(raw, names, n_s, n_t, _met.NETCDF_GROUP_RECORDS)
-        if step is not None:
-            ds, ledger = _met._netcdf_body(raw, path, catalogue, group_sites=step)
-        else:
-            folder = tempfile.mkdtemp(prefix="workbench-zarr-")
-            try:
-                copy = _site_major_copy(raw, names, chunks, folder, path)
-                ds, ledger = _met._netcdf_body(copy, path, catalogue)
-            finally:
-                shutil.rmtree(folder, ignore_errors=True)
-    if squeezed:
-        ledger.notes.append(f"{path.name}: single-level dimension dropped from "
-                            + ", ".join(squeezed))
-    ledger.notes.extend(f"{path.name}: {n}" for n in chunk_notes)
-    ledger.notes.extend(notes)
-    return ds, ledger
