@@ -377,3 +377,18 @@ def test_without_zarr_names_the_extra(demo_met, tmp_path, monkeypatch):
     assert _message(exc) == (f"{p}: a zarr store, and the zarr package is not installed, "
                              'expected the zarr package: python -m pip install '
                              '"deposition-workbench[zarr]"')
+
+
+def test_zarr_2_names_the_extra(demo_met, tmp_path, monkeypatch):
+    """xarray reads zarr stores with zarr 3: an older zarr is named, not a TypeError."""
+    import importlib.metadata
+    met, _, cat = demo_met
+    p = to_zarr(met, tmp_path / "met.zarr")
+    real = importlib.metadata.version
+    monkeypatch.setattr(importlib.metadata, "version",
+                        lambda name: "2.18.7" if name == "zarr" else real(name))
+    with pytest.raises(InputError) as exc:
+        read_met(p, cat)
+    assert _message(exc) == (f"{p}: a zarr store, and zarr 2.18.7 is installed, expected "
+                             "zarr 3 or later (Python 3.11 or later): python -m pip install "
+                             '"deposition-workbench[zarr]"')

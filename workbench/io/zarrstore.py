@@ -16,6 +16,7 @@ zarr package (naming the ``zarr`` extra).
 """
 from __future__ import annotations
 
+import importlib.metadata
 import importlib.util
 import json
 import warnings
@@ -158,9 +159,8 @@ def _zarr_store(path: Path, files: _Files):
     """The zarr store object of a folder (its path) or of a zip (a read-only ZipStore)."""
     if not files.zipped:
         return str(path)
-    import zarr
-    zip_store = getattr(getattr(zarr, "storage", None), "ZipStore", None) or zarr.ZipStore
-    return zip_store(str(path), mode="r")
+    from zarr.storage import ZipStore
+    return ZipStore(str(path), mode="r")
 
 
 def open_zarr(path, role: str = "met", check_consolidated: bool = True
@@ -204,6 +204,10 @@ def open_zarr(path, role: str = "met", check_consolidated: bool = True
     if importlib.util.find_spec("zarr") is None:
         raise InputError("a zarr store, and the zarr package is not installed", file=path,
                          expected=f"the zarr package: {ZARR_EXTRA}")
+    version = importlib.metadata.version("zarr")
+    if int(version.split(".")[0]) < 3:      # xarray reads zarr stores with zarr 3
+        raise InputError(f"a zarr store, and zarr {version} is installed", file=path,
+                         expected=f"zarr 3 or later (Python 3.11 or later): {ZARR_EXTRA}")
     store = _zarr_store(path, files)
     try:
         with warnings.catch_warnings():
