@@ -25,7 +25,7 @@ from . import species as _species
 from .constants import GAS_CONSTANT
 from .errors import InputError, suggest
 from .io import metchecks
-from .io.met import MET_VARIABLES
+from .io.met import MET_VARIABLES, time_units
 from .io.samples import parse_reference_state
 from .io.sites import Site, SiteCatalogue
 from .io.zarrstore import is_zarr_path, open_zarr
@@ -146,7 +146,7 @@ def _met_times(ds, path):
     t = ds["time"]
     if not np.issubdtype(t.dtype, np.datetime64):
         raise GridError("time not decoded as dates", file=path, column="time",
-                        value=f"{t.dtype} {t.attrs.get('units', '(no units)')}",
+                        value=f"{t.dtype} {time_units(t)}",
                         expected="a CF time coordinate ('hours since 2020-01-01 00:00')")
     times = t.values.astype("datetime64[ns]")
     bounds = t.attrs.get("bounds")

@@ -288,16 +288,26 @@ def test_units_added_after_consolidation_are_read(demo_met, tmp_path, fmt):
     _same_as_netcdf(got, read_met(folder / "met.nc", cat), zarr_notes=1)
 
 
-def test_time_not_decoded(demo_met, tmp_path):
+@pytest.mark.parametrize("attrs, got", [
+    ({"units": "hours after the start"}, "float64 hours after the start"),
+    ({"units": "fortnights since 2020-01-01"}, "fortnights since 2020-01-01"),
+    ({"units": "hours since 2020-13-45"}, "hours since 2020-13-45"),
+    ({"units": "hours since 2020-01-01 00:00", "calendar": "noleap"},
+     "object hours since 2020-01-01 00:00 (calendar noleap)"),
+])
+def test_time_not_decoded(demo_met, tmp_path, attrs, got):
+    """Time as numbers of unknown units, units xarray cannot decode, or a calendar
+    that gives no dates of the standard calendar: one located message each."""
+    if "calendar" in attrs:
+        pytest.importorskip("cftime", reason="cftime decodes a noleap calendar")
     met, _, cat = demo_met
-    bad = met.assign_coords(time=("time", np.arange(met.sizes["time"], dtype=float),
-                                  {"units": "hours after the start"}))
+    bad = met.assign_coords(time=("time", np.arange(met.sizes["time"], dtype=float), attrs))
     p = to_zarr(bad, tmp_path / "met.zarr")
     with pytest.raises(InputError) as exc:
         read_met(p, cat)
-    assert _message(exc) == (f"{p}, column 'time': time not decoded as dates: got 'float64 "
-                             "hours after the start', expected a CF time coordinate ('hours "
-                             "since 2020-01-01 00:00', standard calendar)")
+    assert _message(exc) == (f"{p}, column 'time': time not decoded as dates: got '{got}', "
+                             "expected a CF time coordinate ('hours since 2020-01-01 00:00', "
+                             "standard calendar)")
 
 
 def test_oddly_chunked_variable_is_read_with_a_note(demo_met, tmp_path, monkeypatch):

@@ -208,7 +208,7 @@ def _netcdf_layout(raw, path, catalogue):
                          expected="a 'site' coordinate holding the ids of the catalogue")
     if not np.issubdtype(raw["time"].dtype, np.datetime64):
         raise InputError("time not decoded as dates", file=path, column="time",
-                         value=f"{raw['time'].dtype} {raw['time'].attrs.get('units', '(no units)')}",
+                         value=f"{raw['time'].dtype} {time_units(raw['time'])}",
                          expected="a CF time coordinate ('hours since 2020-01-01 00:00', "
                          "standard calendar)")
     label = str(raw.attrs.get("time_label", "end")).lower()
@@ -222,6 +222,15 @@ def _netcdf_layout(raw, path, catalogue):
         raise InputError("site not in the catalogue", file=path, column="site", value=s,
                          expected="one of " + ", ".join(catalogue.ids) + suggest(s, catalogue.ids))
     return squeezed, label
+
+
+def time_units(time) -> str:
+    """The units (and a calendar other than the standard one) of a time coordinate as
+    written in the file, for messages (decoded times keep them in ``encoding``)."""
+    units = time.attrs.get("units") or time.encoding.get("units") or "(no units)"
+    cal = time.attrs.get("calendar") or time.encoding.get("calendar")
+    return f"{units} (calendar {cal})" if cal and cal not in ("standard", "gregorian",
+                                                               "proleptic_gregorian") else units
 
 
 def _netcdf_units(raw, path):

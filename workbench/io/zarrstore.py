@@ -218,11 +218,18 @@ def open_zarr(path, role: str = "met", check_consolidated: bool = True
         if hasattr(store, "close"):
             store.close()
         first = str(exc).strip().splitlines()[0][:200] if str(exc).strip() else ""
-        column = "time" if "time" in first and "decode" in first.lower() else None
+        if "decode" in first.lower() and "time" in first:
+            attrs = (files.read_json("time/zarr.json") or {}).get("attributes") or \
+                files.read_json("time/.zattrs") or {}
+            units = attrs.get("units", "(no units)")
+            cal = attrs.get("calendar")
+            raise InputError("time not decoded as dates", file=path, column="time",
+                             value=f"{units} (calendar {cal})" if cal else units,
+                             expected="a CF time coordinate ('hours since 2020-01-01 00:00', "
+                             "standard calendar)") from None
         raise InputError(f"cannot open the zarr store ({type(exc).__name__}: {first})",
-                         file=path, column=column,
-                         expected="a zarr store written by xarray's Dataset.to_zarr (CF "
-                         "attributes, codecs of the zarr package)") from None
+                         file=path, expected="a zarr store written by xarray's "
+                         "Dataset.to_zarr (CF attributes, codecs of the zarr package)") from None
     if hasattr(store, "close"):          # a ZipStore: closed with the Dataset
         backend_close = getattr(ds, "_close", None)
 
