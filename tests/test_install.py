@@ -22,7 +22,7 @@ ROOT = Path(__file__).resolve().parents[1]
 PACKAGE = ROOT / "workbench"
 PYPROJECT = tomllib.loads((ROOT / "pyproject.toml").read_text())
 #: Imported only inside the functions that need them, from an extra.
-LAZY = {"dask": "scale", "distributed": "scale", "kaleido": "export"}
+LAZY = {"dask": "scale", "distributed": "scale", "kaleido": "export", "zarr": "zarr"}
 
 
 def _norm(name: str) -> str:
@@ -180,4 +180,7 @@ def test_netcdf_engines_used_are_runtime_dependencies():
     engines = {m for p in PACKAGE.rglob("*.py")
                for m in re.findall(r"engine=[\"'](\w+)[\"']", p.read_text(encoding="utf-8"))}
     assert engines, "the writers name their NetCDF engine"
-    assert {_norm(e) for e in engines} <= deps
+    lazy = {e for e in engines if e in LAZY}      # zarr: its own extra, checked before use
+    extras = PYPROJECT["project"]["optional-dependencies"]
+    assert all(_norm(e) in _requirement_names(extras[LAZY[e]]) for e in lazy)
+    assert {_norm(e) for e in engines - lazy} <= deps

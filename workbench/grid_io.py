@@ -1,6 +1,6 @@
-"""Readers of gridded inputs in CF NetCDF: hourly met and air concentrations on
-(time, y, x) and a land-use grid of our receptor classes (docs/data_formats.md,
-"Gridded fields").
+"""Readers of gridded inputs in CF NetCDF (or zarr stores of the same layout): hourly
+met and air concentrations on (time, y, x) and a land-use grid of our receptor classes
+(docs/data_formats.md, "Gridded fields").
 
 :func:`open_grid` checks the three files (dimensions, units, coordinates, land-use
 codes) from their metadata and the small 2-D fields, without reading the hourly
@@ -25,9 +25,10 @@ from . import species as _species
 from .constants import GAS_CONSTANT
 from .errors import InputError, suggest
 from .io import metchecks
-from .io.met import MET_VARIABLES
+from .io.met import MET_VARIABLES, time_units
 from .io.samples import parse_reference_state
 from .io.sites import Site, SiteCatalogue
+from .io.zarrstore import is_zarr_path, open_zarr
 from .landuse import LAND_USE
 from .units import convert_plain, parse_unit, to_amount, ureg
 
@@ -45,7 +46,16 @@ class GridError(InputError):
     """A gridded input breaks the format of docs/data_formats.md."""
 
 
-def _open(path: Path, role: str) -> xr.Dataset:
+def _open(path: Path, role: str, notes=None) -> xr.Dataset:
+    """The grid file (NetCDF) or store (zarr, :mod:`workbench.io.zarrstore`), lazily."""
+    if is_zarr_path(path):
+        try:
+            ds, more = open_zarr(path, role, check_consolidated=notes is not None)
+        except InputError as e:
+            raise GridError(e.problem, file=e.file, column=e.column, value=e.value,
+                            expected=e.expected) from None
+        (notes if notes is not None else []).extend(more)
+        return ds
     if not path.exists():
         raise GridError("file not found", file=path, expected=f"the {role} grid (CF NetCDF)")
     try:
@@ -136,7 +146,7 @@ def _met_times(ds, path):
     t = ds["time"]
     if not np.issubdtype(t.dtype, np.datetime64):
         raise GridError("time not decoded as dates", file=path, column="time",
-                        value=f"{t.dtype} {t.attrs.get('units', '(no units)')}",
+                        value=f"{t.dtype} {time_units(t)}",
                         expected="a CF time coordinate ('hours since 2020-01-01 00:00')")
     times = t.values.astype("datetime64[ns]")
     bounds = t.attrs.get("bounds")
@@ -261,7 +271,8 @@ def open_grid(met, air, land_use) -> Grid:
     Parameters
     ----------
     met, air, land_use : str or Path
-        CF NetCDF files (docs/data_formats.md, "Gridded fields").
+        CF NetCDF files, or zarr stores of the same layout (a folder ``x.zarr`` or
+        a zipped ``x.zarr.zip``; docs/data_formats.md, "Gridded fields").
 
     Raises
     ------
@@ -269,9 +280,12 @@ def open_grid(met, air, land_use) -> Grid:
         Naming the file, the variable, the value and what was expected.
     """
     paths = {"met": Path(met), "air": Path(air), "land_use": Path(land_use)}
-    ds = {k: _open(p, k) for k, p in paths.items()}
+    notes = []
+    ds = {k: _open(p, k, notes) for k, p in paths.items()}
     try:
-        return _check(paths, ds)
+        grid = _check(paths, ds)
+        grid.notes.extend(notes)
+        return grid
     finally:
         for d in ds.values():
             d.close()
@@ -508,7 +522,7 @@ def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue):
     keep = np.isin(ids, catalogue.ids)
     kept = ids[keep]
     n_t, n_c = len(grid.times), len(kept)
-    with xr.open_dataset(grid.paths["met"]) as raw:
+    with _open(grid.paths["met"], "met") as raw:
         values = {}
         for name, unit in grid.met_units.items():
             v = _block_values(raw[name].isel(sel), grid.dims)
@@ -538,7 +552,7 @@ def _air_block(grid, sel, keep, kept):
     n_p, n_c = len(grid.air_start), len(kept)
     ref = parse_reference_state(grid.reference_state) if grid.reference_state else None
     conc = {}
-    with xr.open_dataset(grid.paths["air"]) as raw:
+    with _open(grid.paths["air"], "air") as raw:
         for sp, unit in grid.air_units.items():
             v = _block_values(raw[sp].isel(sel), grid.dims)
             v = v.reshape(n_p, -1)[:, keep].T.reshape(-1).astype(float)     # (cell, period)

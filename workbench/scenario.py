@@ -24,7 +24,7 @@ SCHEMA: dict = {
         "sites": (str, None, "site catalogue (TOML), required"),
         "precipitation": (str, None, "precipitation samples (CSV)"),
         "air": (str, None, "air concentrations (CSV)"),
-        "met": (str, None, "hourly meteorology (CSV or NetCDF)"),
+        "met": (str, None, "hourly meteorology (CSV, NetCDF or a zarr store)"),
         "flag_map": (str, None, "mapping of a lab's own sample flag codes to the flag words "
                      "(TOML, see docs/data_formats.md)"),
     },
@@ -38,9 +38,10 @@ SCHEMA: dict = {
                             "air file states none: 'ambient' or '<T> degC, <p> hPa'"),
     },
     "grid": {
-        "met": (str, None, "hourly met on (time, y, x), CF NetCDF (docs/data_formats.md)"),
-        "air": (str, None, "air concentrations on (time, y, x) with time bounds, CF NetCDF"),
-        "land_use": (str, None, "land-use classes on (y, x), CF NetCDF flag_values/"
+        "met": (str, None, "hourly met on (time, y, x), CF NetCDF or zarr (docs/data_formats.md)"),
+        "air": (str, None, "air concentrations on (time, y, x) with time bounds, CF NetCDF "
+                "or zarr"),
+        "land_use": (str, None, "land-use classes on (y, x), CF NetCDF or zarr, flag_values/"
                      "flag_meanings"),
     },
     "compare": {

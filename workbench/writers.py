@@ -24,7 +24,13 @@ __all__ = ["OUTPUT_STEPS", "OutputError", "RunFolder", "atomic_write", "write_ru
 
 
 def sha256(path) -> str:
+    """SHA-256 of a file; of a folder (a zarr store), of its files' relative paths and
+    contents in name order."""
     h = hashlib.sha256()
+    if Path(path).is_dir():
+        for f in sorted(p for p in Path(path).rglob("*") if p.is_file()):
+            h.update(f.relative_to(path).as_posix().encode() + b"\0" + sha256(f).encode())
+        return h.hexdigest()
     with open(path, "rb") as f:
         for chunk in iter(lambda: f.read(1 << 20), b""):
             h.update(chunk)

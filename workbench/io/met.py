@@ -1,4 +1,4 @@
-"""Reader of hourly meteorology (CSV, or NetCDF through xarray).
+"""Reader of hourly meteorology (CSV, or NetCDF or zarr through xarray).
 
 Returns a Dataset on (``site``, ``time``) with one common hourly axis, ``time`` being
 the END of each hour in UTC (see docs/data_model.md), and a ledger.  Values that fail
@@ -40,7 +40,8 @@ def read_met(path, catalogue):
     path : str or Path
         CSV (optionally gzipped) with ``site, time`` and the variables of
         :data:`MET_VARIABLES` (units in the headers), or a NetCDF file with dims
-        (site, time) and ``units`` attributes.
+        (site, time) and ``units`` attributes, or a zarr store of the same layout (a
+        folder ``met.zarr`` or a zipped ``met.zarr.zip``; :mod:`workbench.io.metzarr`).
     catalogue : SiteCatalogue
 
     Returns
@@ -53,6 +54,9 @@ def read_met(path, catalogue):
     path = Path(path)
     if path.suffix in (".nc", ".nc4", ".netcdf"):
         return _read_met_netcdf(path, catalogue)
+    from .zarrstore import is_zarr_path
+    if is_zarr_path(path):                  # a zarr store: a folder or a .zarr.zip
+        return read_met_zarr(path, catalogue)
     from .metfast import read_met_csv_fast
     fast = read_met_csv_fast(path, catalogue)
     if fast is not None:        # else a file the line-by-line reader below must judge
@@ -204,7 +208,7 @@ def _netcdf_layout(raw, path, catalogue):
                          expected="a 'site' coordinate holding the ids of the catalogue")
     if not np.issubdtype(raw["time"].dtype, np.datetime64):
         raise InputError("time not decoded as dates", file=path, column="time",
-                         value=f"{raw['time'].dtype} {raw['time'].attrs.get('units', '(no units)')}",
+                         value=f"{raw['time'].dtype} {time_units(raw['time'])}",
                          expected="a CF time coordinate ('hours since 2020-01-01 00:00', "
                          "standard calendar)")
     label = str(raw.attrs.get("time_label", "end")).lower()
@@ -218,6 +222,15 @@ def _netcdf_layout(raw, path, catalogue):
         raise InputError("site not in the catalogue", file=path, column="site", value=s,
                          expected="one of " + ", ".join(catalogue.ids) + suggest(s, catalogue.ids))
     return squeezed, label
+
+
+def time_units(time) -> str:
+    """The units (and a calendar other than the standard one) of a time coordinate as
+    written in the file, for messages (decoded times keep them in ``encoding``)."""
+    units = time.attrs.get("units") or time.encoding.get("units") or "(no units)"
+    cal = time.attrs.get("calendar") or time.encoding.get("calendar")
+    return f"{units} (calendar {cal})" if cal and cal not in ("standard", "gregorian",
+                                                               "proleptic_gregorian") else units
 
 
 def _netcdf_units(raw, path):
@@ -243,7 +256,20 @@ def _netcdf_units(raw, path):
     return raw_units
 
 
-def _netcdf_body(raw, path, catalogue):
+def read_values(var, path, name):
+    """The values of a lazily read variable, or the located error of a damaged file."""
+    try:
+        return var.values
+    except Exception as exc:  # codecs and engines raise many error types
+        first = str(exc).strip().splitlines()[0][:160] if str(exc).strip() else ""
+        raise InputError(f"cannot read the values ({type(exc).__name__}: {first})", file=path,
+                         column=name, expected="values the format can decode (the file or "
+                         "store may be damaged or half-copied)") from None
+
+
+def _netcdf_body(raw, path, catalogue, group_sites=None):
+    """Read, check and store `raw` (opened lazily) a group of whole sites at a time;
+    `group_sites` sites per group (default: :data:`NETCDF_GROUP_RECORDS` records)."""
     from .ledger import CODED_ABOVE, CodedRows
     from .metstore import MetStore, grid_rows, load_small
     from .metvars import met_attrs
@@ -278,13 +304,14 @@ def _netcdf_body(raw, path, catalogue):
     texts, gaps = {}, {}
     kept_sites = np.zeros(n_s, bool)
     lo_t, hi_t = n_grid, -1
-    step = max(1, NETCDF_GROUP_RECORDS // n_t)
+    step = group_sites or max(1, NETCDF_GROUP_RECORDS // n_t)
     for k0 in range(0, n_s, step):
         k1 = min(n_s, k0 + step)
         values = {}
         for name in names:
             target = MET_VARIABLES[name][0]
-            v = raw[name].isel(site=slice(k0, k1)).transpose("site", "time").values
+            v = read_values(raw[name].isel(site=slice(k0, k1)).transpose("site", "time"),
+                            path, name)
             values[name] = convert_met(v.astype(float).reshape(-1), str(raw_units[name]), name,
                                        target)
         sites = np.repeat(ids[k0:k1].astype(object), n_t)
@@ -340,4 +367,59 @@ def _netcdf_body(raw, path, catalogue):
     if squeezed:
         ledger.notes.append(f"{path.name}: single-level dimension dropped from "
                             + ", ".join(squeezed))
+    return ds, ledger
+
+
+def read_met_zarr(path, catalogue):
+    """Read hourly met from a zarr store, held to the NetCDF rules (how the chunks are
+    read: :mod:`workbench.io.metzarr`).
+
+    Parameters
+    ----------
+    path : str or Path
+        A store folder (``met.zarr``) or a zipped store (``met.zarr.zip``) with dims
+        (site, time), a ``site`` coordinate of catalogue ids, a CF time coordinate and a
+        ``units`` attribute on each variable (docs/data_formats.md, section 4).
+    catalogue : SiteCatalogue
+
+    Returns
+    -------
+    met : xarray.Dataset
+        Dims (site, time); SI units, as :func:`read_met`.
+    ledger : Ledger
+        One row per record of the (site, time) grid (its "line" the 1-based record
+        number, site-major); notes on gaps, dropped single levels, chunks and the
+        consolidated metadata.
+
+    Raises
+    ------
+    InputError
+        Naming the store, the variable, the value and what was expected.
+    """
+    import shutil
+    import tempfile
+    from .metzarr import plan, site_major_copy
+    from .zarrstore import open_zarr
+    path = Path(path)
+    raw, notes = open_zarr(path, "met")
+    with raw:
+        squeezed, _ = _netcdf_layout(raw, path, catalogue)
+        names = list(_netcdf_units(raw, path))
+        step, chunks, chunk_notes = plan(raw, names, raw.sizes["site"], raw.sizes["time"],
+                                         NETCDF_GROUP_RECORDS)
+        if step is not None:       # chunks of at most a group's sites: read directly
+            ds, ledger = _netcdf_body(raw, path, catalogue, group_sites=step)
+        else:                      # larger chunks: each read once into a site-major copy
+            folder = tempfile.mkdtemp(prefix="workbench-zarr-")
+            try:
+                copy = site_major_copy(raw, names, chunks, folder,
+                                       lambda var, name: read_values(var, path, name))
+                ds, ledger = _netcdf_body(copy, path, catalogue)
+            finally:
+                shutil.rmtree(folder, ignore_errors=True)
+    if squeezed:
+        ledger.notes.append(f"{path.name}: single-level dimension dropped from "
+                            + ", ".join(squeezed))
+    ledger.notes.extend(f"{path.name}: {n}" for n in chunk_notes)
+    ledger.notes.extend(notes)
     return ds, ledger
