@@ -69,10 +69,14 @@ class CriticalLoadsExplorer(widgets.VBox):
             description=f"show the 5-95 % range (Monte Carlo, {self.unc_options.draws} draws)",
             indent=False, layout=widgets.Layout(width="auto"))
         self._draws = None
+        #: True while the receptor and year lists are refilled: their changes draw nothing.
+        #: (Never ``unobserve_all("value")`` on a Dropdown: it also drops ipywidgets' own
+        #: value -> index link, and the page then shows an empty drop-down.)
+        self._filling = False
         self.site_w.observe(self._on_site, "value")
         for w in (self.receptor_w, self.year_w, self.mode_w, self.range_w,
                   *self.cut_w.values()):
-            w.observe(lambda c: self.draw(), "value")
+            w.observe(self._on_control, "value")
         super().__init__([widgets.HTML("<h3>Critical loads and what-if cuts</h3>"), caution_box(),
                           widgets.HBox([self.site_w, self.receptor_w, self.year_w]),
                           widgets.HBox([widgets.VBox(list(self.cut_w.values())), self.mode_w]),
@@ -83,11 +87,17 @@ class CriticalLoadsExplorer(widgets.VBox):
         self.children = (*self.children, self.figure_export)
         self._load()
 
+    def _on_control(self, change):
+        if not self._filling:
+            self.draw()
+
     def _on_site(self, change):
-        self.receptor_w.unobserve_all("value")
-        self.receptor_w.options = self.session.receptors(self.site_w.value)
-        self.receptor_w.value = self.receptor_w.options[0]
-        self.receptor_w.observe(lambda c: self.draw(), "value")
+        self._filling = True
+        try:
+            self.receptor_w.options = self.session.receptors(self.site_w.value)
+            self.receptor_w.value = self.receptor_w.options[0]
+        finally:
+            self._filling = False
         self._load()
 
     def _load(self):
@@ -98,10 +108,12 @@ class CriticalLoadsExplorer(widgets.VBox):
         self.result, self._draws = result, None
         self.parts = group_deposition(result.years)
         labels = [str(p) for p in self.parts["period"].values]
-        self.year_w.unobserve_all("value")
-        self.year_w.options = labels
-        self.year_w.value = labels[-1]
-        self.year_w.observe(lambda c: self.draw(), "value")
+        self._filling = True
+        try:
+            self.year_w.options = labels
+            self.year_w.value = labels[-1]
+        finally:
+            self._filling = False
         self.progress.done("ready")
         self.draw()
 
