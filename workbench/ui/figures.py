@@ -344,6 +344,12 @@ def network_ranking_bars(ranked: pd.DataFrame, apart: pd.DataFrame, element: str
                            xref="paper", yref="paper", x=0, y=0, yshift=-60, showarrow=False,
                            align="left", xanchor="left", yanchor="top",
                            bgcolor=ENVELOPE_FILL)
+    if not len(ranked):              # say so in the plot, not an empty pair of axes
+        fig.add_annotation(text=f"No site has a complete {element} total in every year:<br>"
+                                "nothing to rank (the sites are named below)",
+                           xref="paper", yref="paper", x=0.5, y=0.5, showarrow=False)
+        fig.update_xaxes(visible=False)
+        fig.update_yaxes(visible=False)
     fig.update_layout(title=f"{element} total, mean of the years: complete totals ranked",
                       xaxis_title=axis_text(unit, element=element), yaxis_title="rank · site",
                       yaxis=dict(autorange="reversed"), template=template,

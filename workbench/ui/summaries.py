@@ -477,6 +477,29 @@ def network_table(year_ds: xr.Dataset, catalogue=None, unit="kg/ha/yr") -> pd.Da
     return t[["site", "receptor", "period", "element", "value", "status", "missing", "rankable"]]
 
 
+def _year_span(periods) -> str:
+    """Periods as text, runs of consecutive years joined: ``2016-2019, 2021``."""
+    try:
+        years = sorted(int(str(p)) for p in periods)
+    except ValueError:                       # months or seasons: listed as they are
+        return ", ".join(map(str, periods))
+    runs, start = [], years[0]
+    for a, b in zip(years, years[1:] + [None]):
+        if b != a + 1:
+            runs.append(f"{start}" if start == a else f"{start}-{a}")
+            start = b
+    return ", ".join(runs)
+
+
+def why_text(pairs) -> str:
+    """``"2016-2023: partial (no NO2)"`` from (period, reason) pairs: the periods of one
+    reason together (in order of first appearance), so that a long record stays a line."""
+    by = {}
+    for period, reason in pairs:
+        by.setdefault(reason, []).append(period)
+    return "; ".join(f"{_year_span(ps)}: {reason}" for reason, ps in by.items())
+
+
 def network_ranking(table: pd.DataFrame, element: str) -> tuple[pd.DataFrame, pd.DataFrame]:
     """Sites ranked by their mean annual total, complete totals only.
 
@@ -494,9 +517,9 @@ def network_ranking(table: pd.DataFrame, element: str) -> tuple[pd.DataFrame, pd
     g = t.groupby(["site", "receptor"], sort=False)
     summ = g.agg(value=("value", "mean"), years=("period", lambda p: " ".join(map(str, p))),
                  ok=("rankable", "all")).reset_index()
-    why = g.apply(lambda d: "; ".join(
-        f"{p}: {s}" + (f" (no {m})" if m else "")
-        for p, s, m, r in zip(d["period"], d["status"], d["missing"], d["rankable"]) if not r),
+    why = g.apply(lambda d: why_text(
+        [(p, f"{s}" + (f" (no {m})" if m else ""))
+         for p, s, m, r in zip(d["period"], d["status"], d["missing"], d["rankable"]) if not r]),
         include_groups=False).rename("why").reset_index()
     summ = summ.merge(why, on=["site", "receptor"])
     ranked = summ[summ["ok"]].sort_values("value", ascending=False).reset_index(drop=True)
