@@ -155,6 +155,31 @@ def mean_totals(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -
     return out
 
 
+def nh3_line(ds: xr.Dataset, site, receptor, unit="kg/ha/yr") -> str:
+    """One sentence on the dry NH3 figure of the budget: the net exchange beside the
+    deposition-only figure, or that NH3 is counted as deposition only.
+
+    Both are mean yearly rates over the periods of `ds` [unit]; empty text when the
+    budget has no NH3 figures.
+    """
+    if "nh3_deposition_only" not in ds.variables:
+        return ""
+    pick = _picker(ds, site, receptor)
+    fac = pick("annual_factor")
+    only = to_unit(pick("nh3_deposition_only"), "N", unit) * fac
+    net = to_unit(pick("nh3_net"), "N", unit) * fac
+    if not np.isfinite(only).any():
+        return "Dry NH3: no figure (no NH3 concentrations in these years)."
+    mo = float(np.nanmean(only))
+    if ds.attrs.get("nh3_figure") != "net" or not np.isfinite(net).any():
+        return (f"Dry NH3 {_fmt(mo)} {unit} N: deposition only (emission not modelled; "
+                "'NH3 exchange' under 'ammonia' gives the net).")
+    mn = float(np.nanmean(net))
+    share = f"{100.0 * (mo - mn) / mo:.0f} %" if mo > 0 else "n/a"
+    return (f"Dry NH3 {_fmt(mn)} {unit} N net (deposition - emission) against {_fmt(mo)} "
+            f"deposition only: emission offsets {share}; the bars and the N totals use the net.")
+
+
 def monthly_amounts(ds_month: xr.Dataset, site, receptor, unit="kg/ha/yr") -> pd.DataFrame:
     """Wet and dry deposition of S and N per month (amount in the month, not a rate).
 
