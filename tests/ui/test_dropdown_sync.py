@@ -63,3 +63,14 @@ def test_every_app_dropdown_in_step(session, two_sites_2021):
                     SensitivityExplorer(session, site="ridge", years=(2021, 2021), run=False),
                     NetworkOverview(Session.open(two_sites_2021))):
             _in_step(app)
+
+
+def test_critical_loads_warns_of_a_partial_total(clf):
+    """mere has no NO2 in the demo: its N total is partial, a lower bound."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        clf.site_w.value = "mere"
+    assert clf.status_note.startswith("Read with care: N total partial (no NO2) in 2021")
+    assert "Read with care" in clf.text_w.value
+    clf.site_w.value = "ridge"
+    assert "N total partial" not in clf.status_note

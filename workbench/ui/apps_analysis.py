@@ -13,6 +13,7 @@ from ..analysis.whatif import GROUP_TEXT, GROUPS, MODES, group_deposition, path_
 from .controls import Progress, caution_box, figure_widget, open_with_progress, refresh, table_html
 from .figures_analysis import clf_spec
 from .session import Session
+from .summaries import RANKABLE, total_rates
 
 #: Draws of the Monte Carlo the explorer offers when the scenario asks for none [1]
 #: (the factors are the defaults of :class:`~workbench.analysis.uncertainty.UncertaintyOptions`).
@@ -183,7 +184,10 @@ class CriticalLoadsExplorer(widgets.VBox):
         self.range_text = "" if row is None else _range_text(row, self.unc_options.draws)
         self.statement = (plain_statement(parts, cuts, {"cl_nut_n": np.nan, **loads}, mode, where)
                           + self.range_text)
+        self.status_note = status_note(self.result.years, *sel.values())
         self.text_w.value = (
+            (f"<p style='color:#D55E00'>{html.escape(self.status_note)}</p>"
+             if self.status_note else "") +
             f"<p>Deposition S {first['s_dep_eq_ha_yr']:.0f}, N {first['n_dep_eq_ha_yr']:.0f} "
             f"eq/ha/yr: acidity exceedance {float(ex.exceedance):.0f} eq/ha/yr "
             f"({html.escape(REGIONS[int(ex.region)])}); nutrient-N exceedance "
@@ -193,6 +197,27 @@ class CriticalLoadsExplorer(widgets.VBox):
                                    self.path, where, MODES[mode], ranges=row))
         self.table_w.value = table_html(self.path[list(PATH_COLUMNS)])
         return self.statement
+
+
+def status_note(years_ds, site, receptor, period) -> str:
+    """A warning when the S or N total of the period is not complete: a partial total
+    (a species without data) is a lower bound of the deposition, so an exceedance may be
+    missed; a flagged one is read with care.  Empty text when both are complete."""
+    t = total_rates(years_ds, site, receptor, [str(period)])
+    t = t[t["pathway"] == "total"]
+    out = []
+    for _, r in t.iterrows():
+        if r["status"] in RANKABLE:
+            continue
+        what = f"{r['element']} total {r['status']}"
+        if r["missing"].strip():
+            what += f" (no {', '.join(r['missing'].split())})"
+        out.append(what)
+    if not out:
+        return ""
+    return (f"Read with care: {'; '.join(out)} in {period}. A partial total leaves out "
+            "species without data, so the deposition and its exceedance may be higher; "
+            "a flagged one has components flagged (site budget explorer, budget.csv notes).")
 
 
 def _range_text(row: dict, draws: int) -> str:
