@@ -44,3 +44,17 @@ def test_difference_spec_uses_the_room():
     spec = figures_schemes.budget_change_spec(t, "farm", "crops")
     lo, hi = spec["layout"]["xaxis"]["range"]
     assert lo < -0.12 - 0.2 * 2.54 and hi > 2.42 + 0.2 * 2.54
+
+
+def test_years_readout_has_room(session):
+    """The default 300 px slider cut the readout to '2023 – 202' (sensitivity, Sobol)."""
+    from workbench.ui.app_sobol import SobolExplorer
+    from workbench.ui.apps import SiteExplorer
+    from workbench.ui.apps_more import SensitivityExplorer
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        apps = [SiteExplorer(session, site="ridge", years=(2021, 2021)),
+                SensitivityExplorer(session, site="ridge", years=(2021, 2021), run=False),
+                SobolExplorer(session, site="ridge", years=(2021, 2021))]
+    for app in apps:
+        assert int(app.years_w.layout.width.rstrip("px")) >= 360, type(app).__name__

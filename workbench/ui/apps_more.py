@@ -61,7 +61,8 @@ class SensitivityExplorer(widgets.VBox):
         self.site_w = widgets.Dropdown(options=session.sites, value=site, description="site")
         self.receptor_w = widgets.Dropdown(options=session.receptors(site), description="receptor")
         self.years_w = widgets.IntRangeSlider(value=years, min=first, max=last, description="years",
-                                              continuous_update=False)
+                                              continuous_update=False,
+                                              layout=widgets.Layout(width="360px"))
         self.unit_w = widgets.Dropdown(options=list(UNITS), value=unit, description="unit")
         self.key_w = widgets.Dropdown(options=[(f"{a.group}: {a.label}", k) for k, a in ASSUMPTIONS.items()],
                                       value=key, description="assumption",
