@@ -21,7 +21,8 @@ from .controls import (Progress, caution_box, figure_widget, make_control, open_
 from .scheme_tab import SchemeTab
 from .session import Session, output_dir
 from .palette import TEMPLATE
-from .summaries import UNITS, change_line, excluded_samples, mean_totals, nh3_line
+from .summaries import (UNITS, change_line, component_rates, excluded_samples,
+                        mean_totals, nh3_line, no_effect_text)
 
 #: Tabs of the site explorer below the budget: name -> what the figure needs.
 TABS = ("monthly fluxes", "deposition velocity", "resistances", "ion balance",
@@ -326,6 +327,12 @@ class SiteExplorer(widgets.VBox):
         self.settings = a.set(self.settings, self.site, change["new"])
         self.recompute("recomputing deposition velocities (a few seconds)" if a.stage == "dry"
                        else f"recomputing ({a.stage} stage)")
+        if self._before is not None and self._before["value"].equals(self._totals["value"]):
+            site = self.session.study.catalogue()[self.site]
+            self.change_w.value += html.escape(" — " + no_effect_text(
+                key, a.label, component_rates(self.result.years, self.site,
+                                              self.receptor_w.value),
+                site.collector, self.settings.budget.bulk_correction))
 
     def _on_site(self, change):
         recs = self.session.receptors(self.site)
