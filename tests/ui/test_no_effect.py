@@ -29,3 +29,18 @@ def test_fixed_vd_of_a_species_without_data(mere_app):
 def test_a_control_that_acts_says_nothing_more(mere_app):
     mere_app.controls["fixed_velocity.SO2"].value = 0.9
     assert "no effect" not in mere_app.change_w.value and "S total" in mere_app.change_w.value
+
+
+def test_sweep_of_a_choice_shows_its_labels(session):
+    """The sweep of a drop-down assumption is drawn with the labels of the drop-down
+    ('net: deposition - emission'), not the scenario's values ('bidirectional')."""
+    from workbench.ui.apps_more import SensitivityExplorer
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = SensitivityExplorer(session, site="ridge", years=(2021, 2021),
+                                  key="dry.nh3_treatment")
+    xs = {x for d in app.fig.data for x in (list(d.x) if d.x is not None else [])}
+    assert {"deposition only", "net: deposition - emission"} <= xs
+    assert "bidirectional" not in xs and set(app.table["value"]) == {"deposition_only",
+                                                                      "bidirectional"}
+    assert "Baseline: deposition only (star)." == app.note_w.value

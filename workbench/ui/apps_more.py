@@ -126,7 +126,12 @@ class SensitivityExplorer(widgets.VBox):
         self.progress.start(f"sweeping {a.label}" + (" (recomputes Vd each time)" if a.stage == "dry" else ""))
         self.table = self.session.sweep(a.key, values, self.settings, site, *years, rec, unit,
                                         progress=self.progress.step)
-        fig = figures.sensitivity_curves(self.table, a.label, base, unit)
+        shown, base_shown = self.table, base       # a choice by its label, as in its control
+        if a.kind == "choice":
+            names = {v: lab for lab, v in a.choices}
+            shown = self.table.assign(value=self.table["value"].map(lambda v: names.get(v, v)))
+            base_shown = names.get(base, base)
+        fig = figures.sensitivity_curves(shown, a.label, base_shown, unit)
         if base is None:
             b = self.session.sweep(a.key, [None], self.settings, site, *years, rec, unit)
             for col, el in enumerate(("S", "N"), start=1):
@@ -136,9 +141,9 @@ class SensitivityExplorer(widgets.VBox):
                                   annotation_text="baseline (model)")
             self.note_w.value = "Baseline: left to the model or the catalogue (dotted line)."
         else:
-            self.note_w.value = f"Baseline: {html.escape(str(base))} (star)."
+            self.note_w.value = f"Baseline: {html.escape(str(base_shown))} (star)."
         refresh(self.fig, fig)
-        show = self.table.pivot_table(index="value", columns="total", values="rate", sort=False)
+        show = shown.pivot_table(index="value", columns="total", values="rate", sort=False)
         self.table_w.value = table_html(show.reset_index())
         self.progress.done("sweep done")
         return self.table
