@@ -214,6 +214,11 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
         parts.append("<p>No precipitation file.</p>")
     parts.append("<h2>Input rows</h2>")
     parts.append(_table_html(study.inputs.ledger.summary()))
+    reasons = study.inputs.ledger.reasons()   # why rows were flagged or rejected, per file
+    if len(reasons):
+        parts.append("<p>Reasons of the flagged and rejected rows (a row may have several; "
+                     "samples.csv has them per precipitation sample):</p>")
+        parts.append(_table_html(reasons))
     if study.inputs.ledger.notes:
         parts.append("<ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in study.inputs.ledger.notes) + "</ul>")
     parts.append("<h2>What the budget leaves out</h2><ul>")

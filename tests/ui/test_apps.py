@@ -205,7 +205,7 @@ def test_sensitivity_explorer_marks_the_baseline_and_is_linear_in_vd(session):
     t = app.run()
     assert set(t["value"]) == {"nss", "total"}
     star = [tr for tr in app.fig.data if tr.name == "baseline"]
-    assert list(star[0].x) == ["nss"]
+    assert list(star[0].x) == ["non-sea-salt"]          # the label of the drop-down
 
 
 def test_network_overview_never_ranks_a_partial_total(two_sites_2021):

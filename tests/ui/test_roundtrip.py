@@ -29,6 +29,7 @@ MODEL = {
     "site.roughness_length_m": 0.7, "particles.fine_mmd": 0.6, "particles.coarse_mmd": 8.0,
     "particles.pSO4.fine_fraction": 0.8, "particles.pNO3.fine_fraction": 0.2,
     "particles.pNH4.fine_fraction": 0.9, "budget.pair_split": "all_particle",
+    "dry.nh3_treatment": "bidirectional",
 }
 WHAT_IFS = {"fixed_velocity.SO2": 0.45, "fixed_velocity.HNO3": 2.5,
             "fixed_velocity.NH3": 0.9, "fixed_velocity.NO2": 0.12, "fixed_velocity.pSO4": 0.15,

@@ -68,8 +68,8 @@ def _z(s, var_s) -> float:
 
 
 def _p(z) -> float:
-    """Two-sided p of a standard normal score."""
-    return float(math.erfc(abs(z) / math.sqrt(2.0)))
+    """Two-sided p of a standard normal score (NaN for NaN: no test)."""
+    return float(math.erfc(abs(z) / math.sqrt(2.0))) if np.isfinite(z) else np.nan
 
 
 def _slope_interval(slopes, var_s, alpha):
@@ -124,6 +124,8 @@ def mann_kendall(x, t=None, alpha=ALPHA) -> TrendResult:
     lo, hi = _slope_interval(slopes, var_s, alpha)
     ok = ~np.isnan(x)
     icpt = float(np.median(x[ok]) - slope * np.median(t[ok])) if n else np.nan
+    if not slopes.size:                 # no pair of values: no test (not p = 1)
+        s = var_s = z = np.nan
     return TrendResult(n, s, var_s, z, _p(z), s / (n * (n - 1) / 2) if n > 1 else np.nan,
                        slope, lo, hi, icpt)
 
@@ -198,6 +200,8 @@ def seasonal_kendall(x, years=None, correct=True, alpha=ALPHA) -> TrendResult:
     lo, hi = _slope_interval(slopes, var_s, alpha)
     counts = np.sum(~np.isnan(x), axis=0)
     pairs = float(np.sum(counts * (counts - 1) / 2))
+    if not slopes.size:                 # no pair of values: no test (not p = 1)
+        s = var_s = z = np.nan
     ok = ~np.isnan(x)
     tt = np.broadcast_to(t[:, None], x.shape)
     icpt = float(np.median(x[ok]) - slope * np.median(tt[ok])) if ok.any() else np.nan

@@ -140,6 +140,8 @@ def mann_kendall_batch(x, t, alpha) -> dict:
         out["slope_low"][sl], out["slope_high"][sl] = _slope_interval(slopes, var_s[sl], alpha)
     s = out["s"]
     z, p = _z_p(s, var_s)
+    none = n < 2                         # no pair of values: no test (not p = 1)
+    s, var_s, z, p = (np.where(none, np.nan, v) for v in (s, var_s, z, p))
     with np.errstate(invalid="ignore", divide="ignore"):
         tau = np.where(n > 1, s / np.where(n > 1, n * (n - 1) / 2, 1.0), np.nan)
     med = median_rows(x)
@@ -201,6 +203,7 @@ def seasonal_kendall_batch(x, t, alpha) -> dict:
     valid = ~np.isnan(x)
     counts = valid.sum(axis=1)
     pairs = np.sum(counts * (counts - 1) / 2, axis=1)
+    s, var_s, z, p = (np.where(pairs == 0, np.nan, v) for v in (s, var_s, z, p))
     with np.errstate(invalid="ignore", divide="ignore"):
         tau = np.where(pairs != 0, s / np.where(pairs != 0, pairs, 1.0), np.nan)
     flat = x.reshape(n_series, -1)

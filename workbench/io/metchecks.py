@@ -14,6 +14,7 @@ from ..constants import STANDARD_PRESSURE, ZERO_CELSIUS
 from ..surface.air import standard_pressure_at
 from ..surface.solar import solar_elevation_sine, time_parts
 from .common import join_reasons
+from .metvars import MET_VARIABLES
 
 #: Hard ranges (internal units) beyond which a value is masked (common practice).
 RANGES = {
@@ -29,6 +30,20 @@ RANGES = {
     "surface_wet": (0.0, 1.0),
     "snow_cover": (0.0, 1.0),
 }
+#: Median temperature of a site above which a degC (or degF) header holds kelvin [K]
+#: (60 degC read from the header: no station reports that as its median; common practice).
+KELVIN_MEDIAN_MIN = ZERO_CELSIUS + 150.0
+
+
+def range_text(name, lo, hi) -> str:
+    """The hard range of a variable with its unit, in degC too for temperature [text]."""
+    unit = MET_VARIABLES.get(name, ("",))[0].replace("**", "")
+    text = f"{lo:g}..{hi:g} {unit}".rstrip()
+    if name == "temperature":
+        text += f" ({lo - ZERO_CELSIUS:g}..{hi - ZERO_CELSIUS:g} degC)"
+    return text
+
+
 #: Night is when the sun is this far below the horizon [degree] (allows for refraction
 #: and the hour's averaging; common practice).
 NIGHT_ELEVATION_DEG = -3.0
@@ -139,11 +154,20 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
                      if stats.loc[s, "nz"] > 0.5 and stats.loc[s, "neg"] < 0.1 and pmax[s] > 10]
         mask("precipitation", np.isin(codes, cum_sites),
              "precipitation looks cumulative, not hourly (masked)")
+    # temperature in kelvin under a degC (or degF) header: a median above 150 degC
+    if "temperature" in values:
+        unit = str(raw_units.get("temperature", "")).strip()
+        if unit not in ("K", "kelvin"):
+            med = frame.assign(v=values["temperature"]).groupby("site")["v"] \
+                .transform("median").to_numpy()
+            mask("temperature", med > KELVIN_MEDIAN_MIN,
+                 f"temperature looks like kelvin although the header says {unit or 'degC'} "
+                 "(masked)")
     # hard ranges
     for name, (lo, hi) in RANGES.items():
         if name in values:
             v = values[name]
-            mask(name, (v < lo) | (v > hi), f"{name} outside {lo:g}..{hi:g} (masked)")
+            mask(name, (v < lo) | (v > hi), f"{name} outside {range_text(name, lo, hi)} (masked)")
     # radiation at night
     if "solar_radiation" in values:
         lat = per_site("latitude")

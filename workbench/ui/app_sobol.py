@@ -53,7 +53,8 @@ class SobolExplorer(widgets.VBox):
         self.receptor_w = widgets.Dropdown(options=recs, value=receptor or recs[0],
                                            description="receptor")
         self.years_w = widgets.IntRangeSlider(value=years, min=first, max=last,
-                                              description="years", continuous_update=False)
+                                              description="years", continuous_update=False,
+                                              layout=widgets.Layout(width="360px"))
         self.year_w = widgets.Dropdown(description="shown", options=[])
         self.output_w = widgets.Dropdown(options=list(OUTPUT_CHOICES), value=output,
                                          description="total")

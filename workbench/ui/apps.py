@@ -21,7 +21,8 @@ from .controls import (Progress, caution_box, figure_widget, make_control, open_
 from .scheme_tab import SchemeTab
 from .session import Session, output_dir
 from .palette import TEMPLATE
-from .summaries import UNITS, change_line, excluded_samples, mean_totals
+from .summaries import (UNITS, change_line, component_rates, excluded_samples,
+                        mean_totals, nh3_line, no_effect_text)
 
 #: Tabs of the site explorer below the budget: name -> what the figure needs.
 TABS = ("monthly fluxes", "deposition velocity", "resistances", "ion balance",
@@ -97,6 +98,7 @@ class SiteExplorer(widgets.VBox):
                          for k, a in ASSUMPTIONS.items()}
         self.change_w = widgets.HTML("", layout=widgets.Layout(min_height="1.6em"))
         self.change_w.add_class("wb-change")
+        self.nh3_w = widgets.HTML("")          # the NH3 figure used: net or deposition only
         self.message_w = widgets.HTML("")
         self.excluded_w = widgets.HTML("")
         self.latency_s = float("nan")
@@ -113,6 +115,7 @@ class SiteExplorer(widgets.VBox):
         self.figs["budget"].add_class("wb-budget")
         self._totals = self._current_totals()
         self.change_w.value = html.escape(change_line(None, self._totals, self.unit_w.value))
+        self.nh3_w.value = self._nh3_html()
         self.excluded_w.value = self._excluded_html()
         pages = {n: self.figs.get(n) for n in TABS}
         pages["excluded samples"] = widgets.VBox([self.figs["excluded samples"], self.excluded_w])
@@ -158,7 +161,8 @@ class SiteExplorer(widgets.VBox):
                                 self.reset_w, self.message_w])
         left = widgets.VBox([widgets.HTML("<b>Assumptions</b>"), acc, buttons],
                             layout=widgets.Layout(width="460px"))
-        right = widgets.VBox([self.change_w, self.figs["budget"], self.gas_w, self.tabs],
+        right = widgets.VBox([self.change_w, self.nh3_w, self.figs["budget"], self.gas_w,
+                              self.tabs],
                              layout=widgets.Layout(flex="1 1 auto",
                                                    min_width=f"{FIGURE_WIDTH + 30}px"))
         head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w],
@@ -277,6 +281,10 @@ class SiteExplorer(widgets.VBox):
                 self.excluded_w.value = self._excluded_html()
             self._drawn[name] = key
 
+    def _nh3_html(self):
+        return html.escape(nh3_line(self.result.years, self.site, self.receptor_w.value,
+                                    self.unit_w.value))
+
     def _excluded_html(self):
         start, end = self.session.bounds(*self.years)
         t = excluded_samples(self.result.screened, self.site, start=start, end=end)
@@ -291,6 +299,7 @@ class SiteExplorer(widgets.VBox):
         after = self._current_totals()
         self.change_w.value = html.escape(change_line(self._before, after, self.unit_w.value))
         self._totals = after
+        self.nh3_w.value = self._nh3_html()
         names = ([n for n in TABS if n not in LAZY_TABS] if all_tabs  # those: when opened
                  else [TABS[self.tabs.selected_index or 0]])
         for name in names:
@@ -318,6 +327,12 @@ class SiteExplorer(widgets.VBox):
         self.settings = a.set(self.settings, self.site, change["new"])
         self.recompute("recomputing deposition velocities (a few seconds)" if a.stage == "dry"
                        else f"recomputing ({a.stage} stage)")
+        if self._before is not None and self._before["value"].equals(self._totals["value"]):
+            site = self.session.study.catalogue()[self.site]
+            self.change_w.value += html.escape(" — " + no_effect_text(
+                key, a.label, component_rates(self.result.years, self.site,
+                                              self.receptor_w.value),
+                site.collector, self.settings.budget.bulk_correction))
 
     def _on_site(self, change):
         recs = self.session.receptors(self.site)

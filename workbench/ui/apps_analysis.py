@@ -13,6 +13,7 @@ from ..analysis.whatif import GROUP_TEXT, GROUPS, MODES, group_deposition, path_
 from .controls import Progress, caution_box, figure_widget, open_with_progress, refresh, table_html
 from .figures_analysis import clf_spec
 from .session import Session
+from .summaries import RANKABLE, total_rates
 
 #: Draws of the Monte Carlo the explorer offers when the scenario asks for none [1]
 #: (the factors are the defaults of :class:`~workbench.analysis.uncertainty.UncertaintyOptions`).
@@ -69,10 +70,14 @@ class CriticalLoadsExplorer(widgets.VBox):
             description=f"show the 5-95 % range (Monte Carlo, {self.unc_options.draws} draws)",
             indent=False, layout=widgets.Layout(width="auto"))
         self._draws = None
+        #: True while the receptor and year lists are refilled: their changes draw nothing.
+        #: (Never ``unobserve_all("value")`` on a Dropdown: it also drops ipywidgets' own
+        #: value -> index link, and the page then shows an empty drop-down.)
+        self._filling = False
         self.site_w.observe(self._on_site, "value")
         for w in (self.receptor_w, self.year_w, self.mode_w, self.range_w,
                   *self.cut_w.values()):
-            w.observe(lambda c: self.draw(), "value")
+            w.observe(self._on_control, "value")
         super().__init__([widgets.HTML("<h3>Critical loads and what-if cuts</h3>"), caution_box(),
                           widgets.HBox([self.site_w, self.receptor_w, self.year_w]),
                           widgets.HBox([widgets.VBox(list(self.cut_w.values())), self.mode_w]),
@@ -83,11 +88,17 @@ class CriticalLoadsExplorer(widgets.VBox):
         self.children = (*self.children, self.figure_export)
         self._load()
 
+    def _on_control(self, change):
+        if not self._filling:
+            self.draw()
+
     def _on_site(self, change):
-        self.receptor_w.unobserve_all("value")
-        self.receptor_w.options = self.session.receptors(self.site_w.value)
-        self.receptor_w.value = self.receptor_w.options[0]
-        self.receptor_w.observe(lambda c: self.draw(), "value")
+        self._filling = True
+        try:
+            self.receptor_w.options = self.session.receptors(self.site_w.value)
+            self.receptor_w.value = self.receptor_w.options[0]
+        finally:
+            self._filling = False
         self._load()
 
     def _load(self):
@@ -98,10 +109,12 @@ class CriticalLoadsExplorer(widgets.VBox):
         self.result, self._draws = result, None
         self.parts = group_deposition(result.years)
         labels = [str(p) for p in self.parts["period"].values]
-        self.year_w.unobserve_all("value")
-        self.year_w.options = labels
-        self.year_w.value = labels[-1]
-        self.year_w.observe(lambda c: self.draw(), "value")
+        self._filling = True
+        try:
+            self.year_w.options = labels
+            self.year_w.value = labels[-1]
+        finally:
+            self._filling = False
         self.progress.done("ready")
         self.draw()
 
@@ -171,7 +184,10 @@ class CriticalLoadsExplorer(widgets.VBox):
         self.range_text = "" if row is None else _range_text(row, self.unc_options.draws)
         self.statement = (plain_statement(parts, cuts, {"cl_nut_n": np.nan, **loads}, mode, where)
                           + self.range_text)
+        self.status_note = status_note(self.result.years, *sel.values())
         self.text_w.value = (
+            (f"<p style='color:#D55E00'>{html.escape(self.status_note)}</p>"
+             if self.status_note else "") +
             f"<p>Deposition S {first['s_dep_eq_ha_yr']:.0f}, N {first['n_dep_eq_ha_yr']:.0f} "
             f"eq/ha/yr: acidity exceedance {float(ex.exceedance):.0f} eq/ha/yr "
             f"({html.escape(REGIONS[int(ex.region)])}); nutrient-N exceedance "
@@ -181,6 +197,27 @@ class CriticalLoadsExplorer(widgets.VBox):
                                    self.path, where, MODES[mode], ranges=row))
         self.table_w.value = table_html(self.path[list(PATH_COLUMNS)])
         return self.statement
+
+
+def status_note(years_ds, site, receptor, period) -> str:
+    """A warning when the S or N total of the period is not complete: a partial total
+    (a species without data) is a lower bound of the deposition, so an exceedance may be
+    missed; a flagged one is read with care.  Empty text when both are complete."""
+    t = total_rates(years_ds, site, receptor, [str(period)])
+    t = t[t["pathway"] == "total"]
+    out = []
+    for _, r in t.iterrows():
+        if r["status"] in RANKABLE:
+            continue
+        what = f"{r['element']} total {r['status']}"
+        if r["missing"].strip():
+            what += f" (no {', '.join(r['missing'].split())})"
+        out.append(what)
+    if not out:
+        return ""
+    return (f"Read with care: {'; '.join(out)} in {period}. A partial total leaves out "
+            "species without data, so the deposition and its exceedance may be higher; "
+            "a flagged one has components flagged (site budget explorer, budget.csv notes).")
 
 
 def _range_text(row: dict, draws: int) -> str:

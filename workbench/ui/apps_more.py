@@ -61,7 +61,8 @@ class SensitivityExplorer(widgets.VBox):
         self.site_w = widgets.Dropdown(options=session.sites, value=site, description="site")
         self.receptor_w = widgets.Dropdown(options=session.receptors(site), description="receptor")
         self.years_w = widgets.IntRangeSlider(value=years, min=first, max=last, description="years",
-                                              continuous_update=False)
+                                              continuous_update=False,
+                                              layout=widgets.Layout(width="360px"))
         self.unit_w = widgets.Dropdown(options=list(UNITS), value=unit, description="unit")
         self.key_w = widgets.Dropdown(options=[(f"{a.group}: {a.label}", k) for k, a in ASSUMPTIONS.items()],
                                       value=key, description="assumption",
@@ -125,7 +126,12 @@ class SensitivityExplorer(widgets.VBox):
         self.progress.start(f"sweeping {a.label}" + (" (recomputes Vd each time)" if a.stage == "dry" else ""))
         self.table = self.session.sweep(a.key, values, self.settings, site, *years, rec, unit,
                                         progress=self.progress.step)
-        fig = figures.sensitivity_curves(self.table, a.label, base, unit)
+        shown, base_shown = self.table, base       # a choice by its label, as in its control
+        if a.kind == "choice":
+            names = {v: lab for lab, v in a.choices}
+            shown = self.table.assign(value=self.table["value"].map(lambda v: names.get(v, v)))
+            base_shown = names.get(base, base)
+        fig = figures.sensitivity_curves(shown, a.label, base_shown, unit)
         if base is None:
             b = self.session.sweep(a.key, [None], self.settings, site, *years, rec, unit)
             for col, el in enumerate(("S", "N"), start=1):
@@ -135,9 +141,9 @@ class SensitivityExplorer(widgets.VBox):
                                   annotation_text="baseline (model)")
             self.note_w.value = "Baseline: left to the model or the catalogue (dotted line)."
         else:
-            self.note_w.value = f"Baseline: {html.escape(str(base))} (star)."
+            self.note_w.value = f"Baseline: {html.escape(str(base_shown))} (star)."
         refresh(self.fig, fig)
-        show = self.table.pivot_table(index="value", columns="total", values="rate", sort=False)
+        show = shown.pivot_table(index="value", columns="total", values="rate", sort=False)
         self.table_w.value = table_html(show.reset_index())
         self.progress.done("sweep done")
         return self.table

@@ -36,6 +36,10 @@ SEASONAL_CATEGORIES = (("automatic (surface state, month, latitude)", "automatic
                        ("5 transitional spring", 5))
 _FLAG_EXCLUDE = (("flag and keep", "flag"), ("exclude", "exclude"))
 _LIMIT = (("half the limit", "half"), ("the limit", "limit"), ("zero", "zero"))
+#: ``[dry] nh3_treatment``: deposition only, or the net exchange of the canopy
+#: compensation point model (docs/budget.md, "NH3").
+NH3_TREATMENTS = (("deposition only", "deposition_only"),
+                  ("net: deposition - emission", "bidirectional"))
 
 
 @dataclass
@@ -255,6 +259,7 @@ def _build() -> dict:
                 "gas/particle pairs", "choice",
                 (("as measured", "measured"), ("all as gas", "all_gas"),
                  ("all as particle", "all_particle"))),
+        _option("dry", "nh3_treatment", "NH3 exchange", "ammonia", "choice", NH3_TREATMENTS),
         *[_fixed(sp) for sp in FIXED_SPECIES],
     ]
     return {a.key: a for a in items}

@@ -106,8 +106,20 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
               "yaxis": {"title": {"text": axis_text(unit)}},
               "xaxis": {"title": {"text": "element and period"}},
               "legend": {"title": {"text": "pathway and species"}, "groupclick": "toggleitem"},
-              "height": HEIGHT}
+              "height": legend_height(len(traces) + len(titled))}
     return {"data": traces, "layout": layout}
+
+
+#: Height of a legend line [px] and the figure's height outside the plot area with the
+#: gaps between legend groups [px] (plotly's defaults at font size 12, measured in the
+#: browser: a budget of 11 components had its last entries behind a legend scroll bar).
+LEGEND_LINE_PX, LEGEND_FRAME_PX = 20, 220
+
+
+def legend_height(lines: int) -> int:
+    """Figure height [px] at which a vertical legend of `lines` lines (entries and group
+    titles) shows whole, never below :data:`HEIGHT`."""
+    return max(HEIGHT, LEGEND_FRAME_PX + LEGEND_LINE_PX * (lines + 1))
 
 
 def from_spec(spec: dict, template=TEMPLATE, fig=None) -> go.Figure:
@@ -344,6 +356,12 @@ def network_ranking_bars(ranked: pd.DataFrame, apart: pd.DataFrame, element: str
                            xref="paper", yref="paper", x=0, y=0, yshift=-60, showarrow=False,
                            align="left", xanchor="left", yanchor="top",
                            bgcolor=ENVELOPE_FILL)
+    if not len(ranked):              # say so in the plot, not an empty pair of axes
+        fig.add_annotation(text=f"No site has a complete {element} total in every year:<br>"
+                                "nothing to rank (the sites are named below)",
+                           xref="paper", yref="paper", x=0.5, y=0.5, showarrow=False)
+        fig.update_xaxes(visible=False)
+        fig.update_yaxes(visible=False)
     fig.update_layout(title=f"{element} total, mean of the years: complete totals ranked",
                       xaxis_title=axis_text(unit, element=element), yaxis_title="rank · site",
                       yaxis=dict(autorange="reversed"), template=template,

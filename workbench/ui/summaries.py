@@ -155,6 +155,31 @@ def mean_totals(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -
     return out
 
 
+def nh3_line(ds: xr.Dataset, site, receptor, unit="kg/ha/yr") -> str:
+    """One sentence on the dry NH3 figure of the budget: the net exchange beside the
+    deposition-only figure, or that NH3 is counted as deposition only.
+
+    Both are mean yearly rates over the periods of `ds` [unit]; empty text when the
+    budget has no NH3 figures.
+    """
+    if "nh3_deposition_only" not in ds.variables:
+        return ""
+    pick = _picker(ds, site, receptor)
+    fac = pick("annual_factor")
+    only = to_unit(pick("nh3_deposition_only"), "N", unit) * fac
+    net = to_unit(pick("nh3_net"), "N", unit) * fac
+    if not np.isfinite(only).any():
+        return "Dry NH3: no figure (no NH3 concentrations in these years)."
+    mo = float(np.nanmean(only))
+    if ds.attrs.get("nh3_figure") != "net" or not np.isfinite(net).any():
+        return (f"Dry NH3 {_fmt(mo)} {unit} N: deposition only (emission not modelled; "
+                "'NH3 exchange' under 'ammonia' gives the net).")
+    mn = float(np.nanmean(net))
+    share = f"{100.0 * (mo - mn) / mo:.0f} %" if mo > 0 else "n/a"
+    return (f"Dry NH3 {_fmt(mn)} {unit} N net (deposition - emission) against {_fmt(mo)} "
+            f"deposition only: emission offsets {share}; the bars and the N totals use the net.")
+
+
 def monthly_amounts(ds_month: xr.Dataset, site, receptor, unit="kg/ha/yr") -> pd.DataFrame:
     """Wet and dry deposition of S and N per month (amount in the month, not a rate).
 
@@ -445,6 +470,38 @@ def change_line(before: pd.DataFrame | None, after: pd.DataFrame, unit="kg/ha/yr
     return "; ".join(parts)
 
 
+#: Particulate species of the budget (their dry deposition is 0 at a bulk collector with
+#: ``bulk_correction = "exclude_particles"``, docs/budget.md).
+PARTICLES = ("pSO4", "pNO3", "pNH4")
+
+
+def no_effect_text(key, label, components: pd.DataFrame, collector="wet_only",
+                   bulk_correction="none") -> str:
+    """Why moving an assumption left every total as it was, where the reason is known.
+
+    Parameters
+    ----------
+    key, label : str
+        The assumption's key (``fixed_velocity.NO2``, ``particles.fine_mmd``...) and label.
+    components : pandas.DataFrame
+        :func:`component_rates` of the site and years shown.
+    collector, bulk_correction : str
+        The site's collector and ``[budget] bulk_correction``.
+    """
+    head = f"{label}: no effect on the totals of this site and these years"
+    dry = components[components["pathway"] == "dry"]
+    species = key.split(".")[1] if key.startswith("fixed_velocity.") else None
+    if key.startswith("particles.") or species in PARTICLES:
+        if collector == "bulk" and bulk_correction == "exclude_particles":
+            return (head + " (a bulk collector: its wet deposition holds the particle dry "
+                    "deposition, counted 0 in the dry pathway; docs/budget.md)")
+    if species is not None:
+        st = dry.loc[dry["species"] == species, "status"]
+        if len(st) and (st == "missing").all():
+            return head + f" (no {species} concentrations here)"
+    return head + "."
+
+
 def network_table(year_ds: xr.Dataset, catalogue=None, unit="kg/ha/yr") -> pd.DataFrame:
     """Annual totals of every site on its own surface, over the years.
 
@@ -477,6 +534,29 @@ def network_table(year_ds: xr.Dataset, catalogue=None, unit="kg/ha/yr") -> pd.Da
     return t[["site", "receptor", "period", "element", "value", "status", "missing", "rankable"]]
 
 
+def _year_span(periods) -> str:
+    """Periods as text, runs of consecutive years joined: ``2016-2019, 2021``."""
+    try:
+        years = sorted(int(str(p)) for p in periods)
+    except ValueError:                       # months or seasons: listed as they are
+        return ", ".join(map(str, periods))
+    runs, start = [], years[0]
+    for a, b in zip(years, years[1:] + [None]):
+        if b != a + 1:
+            runs.append(f"{start}" if start == a else f"{start}-{a}")
+            start = b
+    return ", ".join(runs)
+
+
+def why_text(pairs) -> str:
+    """``"2016-2023: partial (no NO2)"`` from (period, reason) pairs: the periods of one
+    reason together (in order of first appearance), so that a long record stays a line."""
+    by = {}
+    for period, reason in pairs:
+        by.setdefault(reason, []).append(period)
+    return "; ".join(f"{_year_span(ps)}: {reason}" for reason, ps in by.items())
+
+
 def network_ranking(table: pd.DataFrame, element: str) -> tuple[pd.DataFrame, pd.DataFrame]:
     """Sites ranked by their mean annual total, complete totals only.
 
@@ -494,9 +574,9 @@ def network_ranking(table: pd.DataFrame, element: str) -> tuple[pd.DataFrame, pd
     g = t.groupby(["site", "receptor"], sort=False)
     summ = g.agg(value=("value", "mean"), years=("period", lambda p: " ".join(map(str, p))),
                  ok=("rankable", "all")).reset_index()
-    why = g.apply(lambda d: "; ".join(
-        f"{p}: {s}" + (f" (no {m})" if m else "")
-        for p, s, m, r in zip(d["period"], d["status"], d["missing"], d["rankable"]) if not r),
+    why = g.apply(lambda d: why_text(
+        [(p, f"{s}" + (f" (no {m})" if m else ""))
+         for p, s, m, r in zip(d["period"], d["status"], d["missing"], d["rankable"]) if not r]),
         include_groups=False).rename("why").reset_index()
     summ = summ.merge(why, on=["site", "receptor"])
     ranked = summ[summ["ok"]].sort_values("value", ascending=False).reset_index(drop=True)

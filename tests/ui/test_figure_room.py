@@ -1,0 +1,60 @@
+"""Room for what a figure writes (seen in the browser on the demo network): the budget's
+legend of 11 components ran behind a scroll bar (wet NO3 and the total hidden), and the
+percentages of the scheme difference were cut at the right edge or written over the
+tick labels at the left."""
+import warnings
+
+import numpy as np
+import pytest
+
+from workbench.ui import figures, figures_schemes
+
+
+def test_budget_legend_fits(session):
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        res = session.run(session.baseline, "ridge", 2021, 2021, "year")
+    spec = figures.budget_bars_spec(res.years, "ridge", "conifer_forest", None)
+    lines = len(spec["data"]) + 2 + 1               # entries, two group titles, the title
+    assert len(spec["data"]) == 11
+    plot_area = spec["layout"]["height"] - 180      # plotly's default top and bottom margins
+    assert plot_area >= figures.LEGEND_LINE_PX * lines
+    assert figures.legend_height(2) == figures.HEIGHT      # small legends: the usual height
+
+
+@pytest.mark.parametrize("x", [[2.42, 2.42, -0.12, 0.0, -0.013, 2.0], [-3.0, -1.0], [0.5, 1.0],
+                               [None, 0.0]])
+def test_difference_labels_have_room(x):
+    rng = figures_schemes.label_room(x)
+    v = [u for u in x if u is not None]
+    span = max(max(v), 0) - min(min(v), 0) or 1.0
+    assert rng[0] <= min(min(v), 0) and rng[1] >= max(max(v), 0)
+    if min(v) < 0:
+        assert min(v) - rng[0] >= 0.2 * span        # room for "-15 %" left of the bar
+    if max(v) > 0:
+        assert rng[1] - max(v) >= 0.2 * span        # room for "+11 %" right of the bar
+    assert np.all(np.isfinite(rng))
+
+
+def test_difference_spec_uses_the_room():
+    import pandas as pd
+    t = pd.DataFrame({"wesely1989": [22.3, 0.78], "zhang2003": [24.7, 0.66],
+                      "element": ["N", "N"], "difference": [2.42, -0.12],
+                      "percent": [10.8, -15.4]}, index=["N dry", "dry HNO3"])
+    spec = figures_schemes.budget_change_spec(t, "farm", "crops")
+    lo, hi = spec["layout"]["xaxis"]["range"]
+    assert lo < -0.12 - 0.2 * 2.54 and hi > 2.42 + 0.2 * 2.54
+
+
+def test_years_readout_has_room(session):
+    """The default 300 px slider cut the readout to '2023 – 202' (sensitivity, Sobol)."""
+    from workbench.ui.app_sobol import SobolExplorer
+    from workbench.ui.apps import SiteExplorer
+    from workbench.ui.apps_more import SensitivityExplorer
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        apps = [SiteExplorer(session, site="ridge", years=(2021, 2021)),
+                SensitivityExplorer(session, site="ridge", years=(2021, 2021), run=False),
+                SobolExplorer(session, site="ridge", years=(2021, 2021))]
+    for app in apps:
+        assert int(app.years_w.layout.width.rstrip("px")) >= 360, type(app).__name__
