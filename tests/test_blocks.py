@@ -347,3 +347,20 @@ def test_monthly_run_reuses_the_season_coverage_months(setup):
     fresh.periods("month", args[5], args[6])       # the same table, asked otherwise
     node = fresh._periods_node("month", np.datetime64(str(args[5])), args[6])
     assert node.key == fresh._periods_node("month", str(args[5]), args[6]).key
+
+
+def test_screened_samples_stacked_as_xarray_concat(setup):
+    """The screened samples of the blocks are stacked with numpy along ``sample``:
+    identical (values, dtypes, attributes) to xarray's outer concat."""
+    from workbench.blockreduce import _combine_attrs, _concat, _stacked
+    study, receptors, outs = _block_outs(setup, 1)
+    parts = [o["screened"] for o in outs]
+    assert len(parts) > 1 and all(p.sizes["sample"] for p in parts)
+    assert _stacked(parts, "sample") is not None        # the numpy way is taken
+    ref = xr.concat(parts, dim="sample", data_vars="minimal", coords="minimal",
+                    compat="override", join="outer", combine_attrs=_combine_attrs)
+    got = _concat(parts, "sample")
+    xr.testing.assert_identical(got, ref)
+    for v in ref.variables:
+        assert got[v].dtype == ref[v].dtype and got[v].attrs == ref[v].attrs, v
+        assert got[v].encoding == ref[v].encoding, v
