@@ -364,3 +364,24 @@ def test_screened_samples_stacked_as_xarray_concat(setup):
     for v in ref.variables:
         assert got[v].dtype == ref[v].dtype and got[v].attrs == ref[v].attrs, v
         assert got[v].encoding == ref[v].encoding, v
+
+
+def test_local_cluster_workers_keep_the_adaptive_malloc_threshold(monkeypatch):
+    """The workers of `start_client` start without distributed's MALLOC_TRIM_THRESHOLD_
+    (it turned off glibc's adaptive mmap threshold: 30-45 % more CPU per block), and the
+    other pre-spawn variables of distributed's configuration stay as they are."""
+    pytest.importorskip("distributed")
+    import os
+    from workbench.blocks import UNSET_WORKER_ENVIRON, start_client
+    for name in UNSET_WORKER_ENVIRON:       # as in a fresh process (no earlier cluster)
+        monkeypatch.delenv(name, raising=False)
+    client = start_client(workers=1)
+    try:
+        env = list(client.run(lambda: dict(os.environ)).values())[0]
+    finally:
+        cluster = client.cluster
+        client.close()
+        cluster.close()
+    assert all(name not in env for name in UNSET_WORKER_ENVIRON)
+    assert env.get("OMP_NUM_THREADS") == "1"           # distributed's other defaults kept
+    assert all(name not in os.environ for name in UNSET_WORKER_ENVIRON)   # nor set here

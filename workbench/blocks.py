@@ -39,6 +39,7 @@ import pandas as pd
 from .blockreduce import reduce_blocks
 from .io.common import release_free_memory
 from .pipeline import Result, Study
+from .threads import sharing_cores
 
 __all__ = ["run_blocks", "run_network", "site_blocks", "start_client", "wanted_blocks",
            "wants_blocks"]
@@ -165,15 +166,30 @@ def _loaded(inputs):
 
 
 # ---------------------------------------------------------------- the runner
+#: Environment variables that ``distributed`` sets on the worker processes it starts
+#: by default and that a local cluster of :func:`start_client` leaves unset.
+#: ``MALLOC_TRIM_THRESHOLD_`` (65,536 bytes by default) turns off glibc's adaptive
+#: threshold for memory mapped allocations: each large numpy temporary of a block was
+#: then mapped and unmapped anew, with five times the page faults, and a block took
+#: 30-45 % more CPU in a worker than in this process (docs/performance.md).  A block
+#: returns its free memory to the system when it ends (``release_free_memory``).
+UNSET_WORKER_ENVIRON = ("MALLOC_TRIM_THRESHOLD_",)
+
+
 def start_client(workers=None, scheduler=None):
     """A ``dask.distributed`` client: on `scheduler` (an address) or on a local cluster
-    of `workers` single-threaded processes.  The caller closes it (and its cluster)."""
+    of `workers` single-threaded processes (without the variables of
+    :data:`UNSET_WORKER_ENVIRON`).  The caller closes it (and its cluster)."""
     from .optional import require
     distributed = require("distributed")
     if scheduler:
         return distributed.Client(scheduler)
-    cluster = distributed.LocalCluster(n_workers=int(workers), threads_per_worker=1,
-                                       dashboard_address=None)
+    import dask
+    unset = {f"distributed.nanny.pre-spawn-environ.{name}": None
+             for name in UNSET_WORKER_ENVIRON}
+    with dask.config.set(unset):      # None: not set (read when the nannies are made)
+        cluster = distributed.LocalCluster(n_workers=int(workers), threads_per_worker=1,
+                                           dashboard_address=None)
     return distributed.Client(cluster)
 
 
@@ -249,12 +265,16 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
         def one(i):
             return run_block(block_inputs(inputs, blocks[i]), site_overrides, block_args[i],
                              keep_velocities)
+
+        def shared(i):      # a block beside others: the engine's larger blocks
+            with sharing_cores():
+                return one(i)
         if n_threads <= 1:
             for i, sites in enumerate(blocks):
                 done[i] = one(i)
                 say(f"block {i + 1}/{len(blocks)} ({len(sites)} sites)")
         else:
-            _run_on_threads(one, done, n_threads,
+            _run_on_threads(shared, done, n_threads,
                             lambda i: say(f"block {i + 1}/{len(blocks)} "
                                           f"({len(blocks[i])} sites)"))
     else:
