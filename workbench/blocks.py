@@ -39,7 +39,6 @@ import pandas as pd
 from .blockreduce import reduce_blocks
 from .io.common import release_free_memory
 from .pipeline import Result, Study
-from .threads import sharing_cores
 
 __all__ = ["run_blocks", "run_network", "site_blocks", "start_client", "wanted_blocks",
            "wants_blocks"]
@@ -265,16 +264,12 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
         def one(i):
             return run_block(block_inputs(inputs, blocks[i]), site_overrides, block_args[i],
                              keep_velocities)
-
-        def shared(i):      # a block beside others: the engine's larger blocks
-            with sharing_cores():
-                return one(i)
         if n_threads <= 1:
             for i, sites in enumerate(blocks):
                 done[i] = one(i)
                 say(f"block {i + 1}/{len(blocks)} ({len(sites)} sites)")
         else:
-            _run_on_threads(shared, done, n_threads,
+            _run_on_threads(one, done, n_threads,
                             lambda i: say(f"block {i + 1}/{len(blocks)} "
                                           f"({len(blocks[i])} sites)"))
     else:

@@ -175,28 +175,3 @@ def run_each(task, n_items: int, max_threads: int | None = None) -> None:
         f.result()
     if failed:
         raise failed[0]
-
-
-class sharing_cores:
-    """Context manager: the current thread shares the cores with other threads of
-    work of its own (e.g. one of several network blocks run at once on threads,
-    :func:`workbench.blocks.run_blocks`), so that :func:`sharing` is true in it and
-    the engine's element-wise steps use the larger blocks of several threads
-    (:func:`workbench.surface._array.block_size`: fewer hand-overs of the interpreter
-    lock).  The numbers do not depend on it.
-
-    >>> with sharing_cores():
-    ...     sharing()
-    True
-    >>> sharing()
-    False
-    """
-
-    def __enter__(self):
-        self._before = sharing()
-        _here.sharing = True
-        return self
-
-    def __exit__(self, *exc):
-        _here.sharing = self._before
-        return False
