@@ -162,3 +162,22 @@ def test_uncertainty_benchmark_times_a_site_year(scenario, capsys):
                           "--draws", "50", "--repeat", "1"])
     assert set(out) == {"layer_s", "site_year_s", "network_year_s"}
     assert "1,000 draws of the site-year" in capsys.readouterr().out
+
+
+def test_same_run_masks_stamps_and_ids_only(tmp_path, capsys):
+    """Two run folders that differ only by a time stamp and a plotly id are the same;
+    a changed digit, or a file on one side only, is found."""
+    same_run = _load("same_run")
+    a, b = tmp_path / "a", tmp_path / "b"
+    for d, stamp, uid in ((a, "2026-12-03T00:21:44Z", "91afb1bb-3862-44e1-b645-8a57acb38aaa"),
+                          (b, "2026-12-03T01:02:03Z", "1b0a7436-2521-463e-8988-9b87091f1fc7")):
+        d.mkdir()
+        (d / "provenance.json").write_text(f'{{"run_started_utc": "{stamp}"}}')
+        (d / "report.html").write_text(f'<div id="{uid}">1.25</div>')
+    assert same_run.differing(a, b) == []
+    assert same_run.main([str(a), str(b)]) == 0
+    (b / "report.html").write_text('<div id="1b0a7436-2521-463e-8988-9b87091f1fc7">1.26</div>')
+    (b / "budget.csv").write_text("x\n")
+    assert [n for n, _ in same_run.differing(a, b)] == ["budget.csv", "report.html"]
+    assert same_run.main([str(a), str(b)]) == 1
+    assert "report.html: differs" in capsys.readouterr().out

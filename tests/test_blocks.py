@@ -347,3 +347,41 @@ def test_monthly_run_reuses_the_season_coverage_months(setup):
     fresh.periods("month", args[5], args[6])       # the same table, asked otherwise
     node = fresh._periods_node("month", np.datetime64(str(args[5])), args[6])
     assert node.key == fresh._periods_node("month", str(args[5]), args[6]).key
+
+
+def test_screened_samples_stacked_as_xarray_concat(setup):
+    """The screened samples of the blocks are stacked with numpy along ``sample``:
+    identical (values, dtypes, attributes) to xarray's outer concat."""
+    from workbench.blockreduce import _combine_attrs, _concat, _stacked
+    study, receptors, outs = _block_outs(setup, 1)
+    parts = [o["screened"] for o in outs]
+    assert len(parts) > 1 and all(p.sizes["sample"] for p in parts)
+    assert _stacked(parts, "sample") is not None        # the numpy way is taken
+    ref = xr.concat(parts, dim="sample", data_vars="minimal", coords="minimal",
+                    compat="override", join="outer", combine_attrs=_combine_attrs)
+    got = _concat(parts, "sample")
+    xr.testing.assert_identical(got, ref)
+    for v in ref.variables:
+        assert got[v].dtype == ref[v].dtype and got[v].attrs == ref[v].attrs, v
+        assert got[v].encoding == ref[v].encoding, v
+
+
+def test_local_cluster_workers_keep_the_adaptive_malloc_threshold(monkeypatch):
+    """The workers of `start_client` start without distributed's MALLOC_TRIM_THRESHOLD_
+    (it turned off glibc's adaptive mmap threshold: 30-45 % more CPU per block), and the
+    other pre-spawn variables of distributed's configuration stay as they are."""
+    pytest.importorskip("distributed")
+    import os
+    from workbench.blocks import UNSET_WORKER_ENVIRON, start_client
+    for name in UNSET_WORKER_ENVIRON:       # as in a fresh process (no earlier cluster)
+        monkeypatch.delenv(name, raising=False)
+    client = start_client(workers=1)
+    try:
+        env = list(client.run(lambda: dict(os.environ)).values())[0]
+    finally:
+        cluster = client.cluster
+        client.close()
+        cluster.close()
+    assert all(name not in env for name in UNSET_WORKER_ENVIRON)
+    assert env.get("OMP_NUM_THREADS") == "1"           # distributed's other defaults kept
+    assert all(name not in os.environ for name in UNSET_WORKER_ENVIRON)   # nor set here

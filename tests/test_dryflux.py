@@ -199,3 +199,50 @@ def test_cumulative_is_the_concatenated_cumsum():
         got = _cumulative(x)
         assert got.dtype == ref.dtype == np.float64 and got.shape == ref.shape
         np.testing.assert_array_equal(got, ref)
+
+
+def test_cumulative_of_all_finite_values_and_with_a_given_mask():
+    """Without NaN the sum runs on the values themselves; a mask handed in gives the
+    same numbers as the one computed inside (bit for bit)."""
+    from workbench.dryflux import _cumulative
+    rng = np.random.default_rng(2)
+    x = rng.normal(size=(3, 2, 500))
+    z = np.zeros(x.shape[:-1] + (1,))
+    np.testing.assert_array_equal(_cumulative(x), np.concatenate([z, np.cumsum(x, -1)], -1))
+    x[0, 1, 3] = np.nan
+    np.testing.assert_array_equal(_cumulative(x, np.isfinite(x)), _cumulative(x))
+
+
+def test_count_cumulative_as_the_cumulative_of_the_float_mask():
+    """The cumulative count of a mask equals the cumulative sum of the mask as 0/1
+    floats, and counts by hand (a leading zero, then 1, 1, 2, ...)."""
+    from workbench.dryflux import _count_cumulative, _cumulative
+    rng = np.random.default_rng(3)
+    for mask in (rng.random((4, 3, 777)) < 0.3, np.ones((2, 5), bool), np.zeros((2, 0), bool)):
+        got = _count_cumulative(mask)
+        assert got.dtype == np.float64 and got.shape == mask.shape[:-1] + (mask.shape[-1] + 1,)
+        np.testing.assert_array_equal(got, _cumulative(mask.astype(float)))
+    np.testing.assert_array_equal(_count_cumulative(np.array([[True, False, True, True]])),
+                                  [[0.0, 1.0, 1.0, 2.0, 3.0]])
+
+
+@pytest.mark.parametrize("gap", [False, True])
+def test_deposition_rows_count_hours_with_and_without_gaps(gap):
+    """The hours of Vd counted in each period: b - a when every hour has a Vd, else the
+    finite hours only (the count by hand)."""
+    from workbench.dryflux import deposition_rows
+    times = np.datetime64("2020-01-01T01:00") + np.arange(48) * np.timedelta64(1, "h")
+    vd = np.full((2, 2, 48), 0.01)
+    if gap:
+        vd[1, 0, 10:15] = np.nan                 # 5 hours of site 1, receptor 0
+    starts = np.array(["2020-01-01T00:00", "2020-01-01T00:00", "2020-01-02T00:00"],
+                      dtype="datetime64[ns]")
+    ends = starts + np.timedelta64(24, "h")
+    r = deposition_rows(np.array([1.0, 2.0, 3.0]), "amount_density", np.array([0, 1, 1]),
+                        starts, ends, times, vd)
+    want = np.full((3, 2), 24.0)
+    if gap:
+        want[1, 0] = 19.0
+    assert r["n_valid"].dtype == np.float64
+    np.testing.assert_array_equal(r["n_valid"], want)
+    np.testing.assert_allclose(r["mean_eff"], 0.01, rtol=1e-12)

@@ -115,10 +115,9 @@ def _concat(parts, dim, receptors=None):
         return None
     if len(parts) == 1:
         return parts[0]
-    if dim == "site":
-        stacked = _stacked(parts, dim)
-        if stacked is not None:
-            return stacked
+    stacked = _stacked(parts, dim)     # blocks of one layout: numpy (the same result)
+    if stacked is not None:
+        return stacked
     return xr.concat(parts, dim=dim, data_vars="minimal", coords="minimal", compat="override",
                      join="outer" if dim == "sample" else "exact",
                      combine_attrs=_combine_attrs)
@@ -127,7 +126,9 @@ def _concat(parts, dim, receptors=None):
 def _stacked(parts, dim):
     """What the ``xr.concat`` of :func:`_concat` gives, for blocks of one layout, by one
     ``numpy.concatenate`` per variable (xarray's concat aligned every variable of every
-    block: seconds at 1,000 site-years); None for any other layout."""
+    block: seconds at 1,000 site-years); None for any other layout.  Along ``sample``
+    (the screened samples, joined "outer" by :func:`_concat`) it is the same: the other
+    axes are checked equal, so the outer join adds nothing."""
     first = parts[0]
     names = list(first.variables)
     for p in parts[1:]:
@@ -181,6 +182,7 @@ def _assembled(parts, receptors, sites):
     index = pd.Index(order)
     if len(order) != len(every) or (index.get_indexer(every) < 0).any():
         return None
+    site_pos = [index.get_indexer(sid.astype(str)) for sid in ids]   # once per block
     rec = list(receptors) if receptors is not None and "receptor" in first.dims else None
     rec_pos = []
     for p in parts:
@@ -212,8 +214,8 @@ def _assembled(parts, receptors, sites):
         shape = [len(order) if d == "site" else (len(rec) if d == "receptor" and rec else s)
                  for d, s in zip(v.dims, v.shape)]
         out = np.full(shape, fill_value(dtype), dtype=dtype)
-        for p, x, rp, sid in zip(parts, vs, rec_pos, ids):
-            axes = [index.get_indexer(sid.astype(str)) if d == "site" else
+        for x, rp, sp in zip(vs, rec_pos, site_pos):
+            axes = [sp if d == "site" else
                     (rp if d == "receptor" and rp is not None else np.arange(s))
                     for d, s in zip(x.dims, x.shape)]
             out[np.ix_(*axes)] = x.values

@@ -165,15 +165,30 @@ def _loaded(inputs):
 
 
 # ---------------------------------------------------------------- the runner
+#: Environment variables that ``distributed`` sets on the worker processes it starts
+#: by default and that a local cluster of :func:`start_client` leaves unset.
+#: ``MALLOC_TRIM_THRESHOLD_`` (65,536 bytes by default) turns off glibc's adaptive
+#: threshold for memory mapped allocations: each large numpy temporary of a block was
+#: then mapped and unmapped anew, with five times the page faults, and a block took
+#: 30-45 % more CPU in a worker than in this process (docs/performance.md).  A block
+#: returns its free memory to the system when it ends (``release_free_memory``).
+UNSET_WORKER_ENVIRON = ("MALLOC_TRIM_THRESHOLD_",)
+
+
 def start_client(workers=None, scheduler=None):
     """A ``dask.distributed`` client: on `scheduler` (an address) or on a local cluster
-    of `workers` single-threaded processes.  The caller closes it (and its cluster)."""
+    of `workers` single-threaded processes (without the variables of
+    :data:`UNSET_WORKER_ENVIRON`).  The caller closes it (and its cluster)."""
     from .optional import require
     distributed = require("distributed")
     if scheduler:
         return distributed.Client(scheduler)
-    cluster = distributed.LocalCluster(n_workers=int(workers), threads_per_worker=1,
-                                       dashboard_address=None)
+    import dask
+    unset = {f"distributed.nanny.pre-spawn-environ.{name}": None
+             for name in UNSET_WORKER_ENVIRON}
+    with dask.config.set(unset):      # None: not set (read when the nannies are made)
+        cluster = distributed.LocalCluster(n_workers=int(workers), threads_per_worker=1,
+                                           dashboard_address=None)
     return distributed.Client(cluster)
 
 

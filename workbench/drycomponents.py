@@ -18,7 +18,7 @@ import xarray as xr
 
 from . import graph as _graph
 from .budget import COMPONENTS, PAIRS, BudgetError, BudgetOptions
-from .dryflux import (_cumulative, _hour_bounds, _inputs_for, deposition_rows, fill_diurnal,
+from .dryflux import (_count_cumulative, _hour_bounds, _inputs_for, deposition_rows, fill_diurnal,
                       period_axes, period_mean, share_to_periods)
 
 
@@ -163,8 +163,7 @@ def fill_arrays(vd, was, source, sites) -> dict:
     was_np = w.transpose("site", "receptor", "time").values
     valid_raw = np.isfinite(v.values) & ~was_np
     return {"vel": (vd, was, source), "vd": v, "v_np": v.values,
-            "c_valid": _cumulative(valid_raw.astype(float)),
-            "c_fill": _cumulative(was_np.astype(float))}
+            "c_valid": _count_cumulative(valid_raw), "c_fill": _count_cumulative(was_np)}
 
 
 # ------------------------------------------------------------------ stages of the rows

@@ -147,15 +147,44 @@ def hour_slots(times):
     return (years - y0) * 288 + month_hour, month_hour, n_years
 
 
-def _cumulative(x):
-    """Cumulative sum along the last axis with a leading zero (NaN counted as 0)."""
-    clean = np.where(np.isfinite(x), x, 0.0)
+def _cumulative(x, finite=None):
+    """Cumulative sum along the last axis with a leading zero (NaN counted as 0).
+
+    `finite` is ``np.isfinite(x)`` when the caller has it already; where every value is
+    finite the sum runs on `x` itself (the same additions, no cleaned copy)."""
+    if finite is None:
+        finite = np.isfinite(x)
+    clean = x if finite.all() else np.where(finite, x, 0.0)
     if clean.dtype != np.float64:            # (the sum in its own dtype, then float64)
         z = np.zeros(x.shape[:-1] + (1,))
         return np.concatenate([z, np.cumsum(clean, axis=-1)], axis=-1)
     out = np.empty(clean.shape[:-1] + (clean.shape[-1] + 1,))
     out[..., 0] = 0.0
     np.cumsum(clean, axis=-1, out=out[..., 1:])      # the same additions, no second copy
+    return out
+
+
+def _count_cumulative(mask):
+    """Cumulative count of the true elements along the last axis, with a leading zero.
+
+    Parameters
+    ----------
+    mask : ndarray of bool (..., T)
+
+    Returns
+    -------
+    ndarray of float64 (..., T + 1)
+        Element k is the number of true elements among the first k [1]: the same
+        numbers as :func:`_cumulative` of ``mask.astype(float)`` (whole numbers, exact in
+        float64), in one pass and without the float copy of the mask.
+
+    >>> _count_cumulative(np.array([True, False, True])).tolist()
+    [0.0, 1.0, 1.0, 2.0]
+    """
+    mask = np.asarray(mask, dtype=bool)
+    out = np.empty(mask.shape[:-1] + (mask.shape[-1] + 1,))
+    out[..., 0] = 0.0
+    np.cumsum(mask, axis=-1, dtype=np.float64, out=out[..., 1:])
     return out
 
 
@@ -257,11 +286,15 @@ def deposition_rows(conc, quantity, site_index, starts, ends, times, vd, n_air=N
         if n_air is None:
             raise ValueError("a mixing ratio needs the hourly molar density of air")
         eff = eff * n_air[:, None, :]
-    cs = _cumulative(eff)
-    cn = _cumulative(np.isfinite(eff).astype(float))
+    finite = np.isfinite(eff)
+    cs = _cumulative(eff, finite)
     a, b = _hour_bounds(times, starts, ends)
     total = cs[site_index, :, b] - cs[site_index, :, a]
-    n_valid = cn[site_index, :, b] - cn[site_index, :, a]
+    if finite.all():        # every hour counts: the count of [a, b) is b - a
+        n_valid = np.repeat((b - a).astype(float)[:, None], eff.shape[1], axis=1)
+    else:
+        cn = _count_cumulative(finite)
+        n_valid = cn[site_index, :, b] - cn[site_index, :, a]
     hours = (ends - starts) / np.timedelta64(1, "h")
     with np.errstate(invalid="ignore", divide="ignore"):
         mean_eff = np.where(n_valid > 0, total / n_valid, np.nan)
