@@ -63,10 +63,26 @@ def export_figure(fig, path, width=WIDTH, height=HEIGHT) -> Path:
                           "'deposition-workbench[export]') and a Chrome or Chromium; "
                           f"write {path.with_suffix('.html').name} instead") from exc
     try:
-        fig.write_image(path, format=fmt, width=width, height=height,
-                        scale=PNG_SCALE if fmt == "png" else 1)
+        _write_image(fig, path, fmt, width, height)
     except Exception as exc:           # kaleido reports a missing browser in many ways
         raise ExportError(f"{fmt.upper()} export failed ({type(exc).__name__}: {exc}); "
                           "kaleido needs a Chrome or Chromium on this machine; write "
                           f"{path.with_suffix('.html').name} instead") from exc
     return path
+
+
+#: kaleido's exceptions that come from the browser page not being ready yet (seen on a
+#: loaded machine: "kaleido_scopes is not defined"): worth one more try.
+TRANSIENT_ERRORS = ("JavascriptError", "TimeoutError")
+
+
+def _write_image(fig, path: Path, fmt: str, width, height, tries: int = 2):
+    """``fig.write_image``, tried again once when kaleido's page was not ready."""
+    for attempt in range(tries):
+        try:
+            fig.write_image(path, format=fmt, width=width, height=height,
+                            scale=PNG_SCALE if fmt == "png" else 1)
+            return
+        except Exception as exc:
+            if attempt + 1 == tries or type(exc).__name__ not in TRANSIENT_ERRORS:
+                raise
