@@ -228,3 +228,102 @@ def test_store_grouped_or_interleaved_sites(tmp_path, cat, monkeypatch, on_disk,
     fast = metfast.read_met_csv_fast(p, cat, chunk_bytes=4096)
     assert fast is not None
     assert_same(fast, _line_reader(monkeypatch, p, cat))
+
+
+# ------------------------------------------------- byte ranges parsed on several threads
+@pytest.fixture()
+def threads():
+    """Set the engine's thread setting (workbench.threads) for one test."""
+    from workbench.threads import set_threads
+    yield set_threads
+    set_threads(None)
+
+
+def _grouped_file(tmp_path, gz=True):
+    """Two sites, each site's rows together (so that small byte ranges cut inside a
+    site), an empty row, RH as a fraction at beta (masked), a gap at alpha."""
+    a = _rows("alpha", "2020-03-01T00:00", 24 * 30)
+    b = _rows("beta", "2020-03-03T00:00", 24 * 25, rh_scale=0.01, seed=1)
+    a[40] = "alpha,2020-03-02T16:00,,,,,,,,\n"
+    del a[100:130]
+    text = "# station: invented\n" + HEAD + "".join(a + b)
+    p = tmp_path / ("met.csv.gz" if gz else "met.csv")
+    p.write_bytes(gzip.compress(text.encode()) if gz else text.encode())
+    return p
+
+
+@pytest.mark.parametrize("chunk", [700, 5000, 1 << 20])
+def test_byte_ranges_on_two_threads_as_one_and_as_the_line_reader(
+        tmp_path, cat, monkeypatch, on_disk, threads, chunk):
+    """Many byte ranges (cut at line ends, inside a site's rows) parsed on two threads and
+    groups of sites checked on two threads give, in file order, the values, ledger (line
+    numbers included), reasons and notes of one thread and of the line reader; so does
+    the whole file in one range."""
+    p = _grouped_file(tmp_path)
+    threads(1)
+    one = metfast.read_met_csv_fast(p, cat, chunk_bytes=chunk)
+    threads(2)
+    two = metfast.read_met_csv_fast(p, cat, chunk_bytes=chunk)
+    assert one is not None and two is not None
+    assert_same(one, two)
+    assert_same(two, _line_reader(monkeypatch, p, cat))
+    table = two[1].table
+    assert table["line"].tolist() == list(range(3, 3 + len(table)))   # meta + header above
+    assert table.loc[table["line"] == 3 + 40, "status"].item() == "rejected"
+
+
+@pytest.mark.parametrize("n_threads", [1, 2])
+def test_a_bad_cell_in_the_second_range_is_named_at_its_file_line(
+        tmp_path, cat, monkeypatch, threads, n_threads):
+    """A cell that is no number in the second byte range: the fast reader declines and
+    the error names the file line of that cell (not a line counted from the range)."""
+    p = _grouped_file(tmp_path, gz=False)
+    lines = p.read_text().splitlines(keepends=True)
+    k = next(i for i in range(2, len(lines)) if sum(map(len, lines[:i])) > 7000)
+    cells = lines[k].split(",")
+    cells[2] = "ten"                                     # wind speed of a row of range 2
+    lines[k] = ",".join(cells)
+    p.write_text("".join(lines))
+    threads(n_threads)
+    assert metfast.read_met_csv_fast(p, cat, chunk_bytes=5000) is None
+    with pytest.raises(InputError, match="text in a numeric column") as err:
+        read_met(p, cat)
+    assert err.value.line == k + 1 and "ten" in str(err.value)
+
+
+def test_a_column_of_words_in_every_range_goes_to_the_line_reader(tmp_path, cat, threads):
+    """The C parser reads a column that holds only true/false words as 1.0/0.0; the line
+    reader refuses the words.  Every range holds only words (or empty cells) in one
+    column: declined on any number of threads, and the line reader names the word."""
+    p = _grouped_file(tmp_path, gz=False)
+    lines = p.read_text().splitlines(keepends=True)
+    for i in range(2, len(lines)):
+        cells = lines[i].split(",")
+        if cells[2]:
+            cells[8] = "true" if i % 2 else "FALSE"
+        lines[i] = ",".join(cells)
+    p.write_text("".join(lines))
+    for n in (1, 2):
+        threads(n)
+        assert metfast.read_met_csv_fast(p, cat, chunk_bytes=3000) is None
+    with pytest.raises(InputError, match="text in a numeric column"):
+        read_met(p, cat)
+
+
+def test_gzip_of_several_members_and_a_cut_gzip(tmp_path, cat, monkeypatch, threads):
+    """A gzip file of two members (``cat a.gz b.gz``) reads as its whole text; a gzip cut
+    short is declined and the line reader names the problem."""
+    p = _grouped_file(tmp_path, gz=False)
+    text = p.read_bytes()
+    half = text.index(b"\nbeta,") + 1
+    two = tmp_path / "two.csv.gz"
+    two.write_bytes(gzip.compress(text[:half]) + gzip.compress(text[half:]))
+    threads(2)
+    fast = metfast.read_met_csv_fast(two, cat, chunk_bytes=4000)
+    assert fast is not None
+    assert_same(fast, _line_reader(monkeypatch, two, cat))
+    cut = tmp_path / "cut.csv.gz"
+    cut.write_bytes(gzip.compress(text)[:-2000])
+    assert metfast.read_met_csv_fast(cut, cat) is None
+    with pytest.raises(InputError, match="gzip"):
+        read_met(cut, cat)
