@@ -106,35 +106,51 @@ def test_interleaved_sites_flags_and_empty_rows(tmp_path, cat, monkeypatch, chun
     assert float(got["pressure"]) == pytest.approx(first["pressure [hPa]"] * 100.0, rel=1e-15)
 
 
-@pytest.mark.parametrize("change, message", [
-    (lambda t: t.replace("\nalpha,", '\n"alpha",', 1), None),
-    (lambda t: t.replace("alpha,", "alpha, ", 1), None),
-    (lambda t: t.replace("\nalpha,", "\n\nalpha,", 1), None),
-    (lambda t: t.replace(",1010.5,", ",ten,", 1), "text in a numeric column"),
-    (lambda t: t.replace("\nbeta,", "\ngamma,", 1), "site not in the catalogue"),
-    (lambda t: t.replace("T03:00", "T02:00", 1), "duplicate hourly timestamp"),
-    (lambda t: t.replace("T05:00", "T05:30", 1), "timestamp not on the hour"),
-    (lambda t: t.replace("T05:00", "2020-13-45", 1), "not an ISO 8601 timestamp"),
-    (lambda t: t.replace(",1010.5,", ",inf,1010.5,", 1), "malformed CSV row"),
-    (lambda t: t.replace(",1010.5,", ",1e999,", 1), "not a finite number"),
-    (lambda t: t.replace(",1010.5,", ",True,", 1), "text in a numeric column"),
-    (lambda t: t.replace(",1010.5,", ",-nan,", 1), "text in a numeric column"),
-    (lambda t: t.replace("[hPa]", "[parsec]"), "unit"),
-    (lambda t: t.replace("wind_speed", "wind"), "missing required column"),
-    (lambda t: t.replace(",x3\n", ",x3,\n", 1), "malformed CSV row"),
+@pytest.mark.parametrize("change, message, located", [
+    (lambda t: t.replace("\nalpha,", '\n"alpha",', 1), None, False),
+    (lambda t: t.replace("alpha,", "alpha, ", 1), None, False),
+    (lambda t: t.replace("\nalpha,", "\n\nalpha,", 1), None, False),
+    (lambda t: t.replace(",1010.5,", ",ten,", 1), "text in a numeric column", True),
+    (lambda t: t.replace("\nbeta,", "\ngamma,", 1), "site not in the catalogue", True),
+    (lambda t: t.replace("\nbeta,", "\n,", 1), "an empty site cell", True),
+    (lambda t: t.replace("T03:00", "T02:00", 1), "duplicate hourly timestamp", True),
+    (lambda t: t.replace("T05:00", "T05:30", 1), "timestamp not on the hour", True),
+    (lambda t: t.replace("T05:00", "2020-13-45", 1), "not an ISO 8601 timestamp", True),
+    (lambda t: t.replace("2020-03-01T05:00", "", 1), "missing timestamp", True),
+    (lambda t: t.replace("2020-03-01T05:00", "1820-03-01T05:00", 1), "outside the years", True),
+    (lambda t: t.replace(",1010.5,", ",inf,1010.5,", 1), "malformed CSV row", False),
+    (lambda t: t.replace(",1010.5,", ",1e999,", 1), "not a finite number", True),
+    (lambda t: t.replace(",1010.5,", ",<5,", 1), "censored value not allowed", True),
+    (lambda t: t.replace(",1010.5,", ",True,", 1), "text in a numeric column", True),
+    (lambda t: t.replace(",1010.5,", ",-nan,", 1), "text in a numeric column", True),
+    (lambda t: t.replace("[hPa]", "[parsec]"), "unit", False),
+    (lambda t: t.replace("wind_speed", "wind"), "missing required column", False),
+    (lambda t: t.replace(",x3\n", ",x3,\n", 1), "malformed CSV row", False),
 ])
-def test_odd_files_go_to_the_line_reader(tmp_path, cat, monkeypatch, change, message):
+def test_odd_files_go_to_the_line_reader(tmp_path, cat, monkeypatch, change, message, located):
+    """Odd but readable files go to the line reader; a file with an error of one row
+    gets the line reader's located error (file, line, column, value, expected) from the
+    fast reader itself (no whole-file read); other errors come from the line reader."""
     text = HEAD + "alpha,2020-02-28T00:00,4.6,2.3,95,0,0.0,1010.5,0,x\n" + "".join(
         _rows("alpha", "2020-03-01T00:00", 48) + _rows("beta", "2020-03-01", 48, seed=2))
     p = tmp_path / "met.csv"
     p.write_text(change(text))
-    assert metfast.read_met_csv_fast(p, cat) is None
     if message is None:
+        assert metfast.read_met_csv_fast(p, cat) is None
         assert_same(read_met(p, cat), _line_reader(monkeypatch, p, cat))
+        return
+    with pytest.raises(InputError, match=message) as line_err:
+        _line_reader(monkeypatch, p, cat)
+    assert str(p) in str(line_err.value)
+    if located:
+        with pytest.raises(InputError) as err:
+            metfast.read_met_csv_fast(p, cat)
+        assert str(err.value) == str(line_err.value)
     else:
-        with pytest.raises(InputError, match=message) as err:
-            read_met(p, cat)
-        assert str(p) in str(err.value)
+        assert metfast.read_met_csv_fast(p, cat) is None
+    with pytest.raises(InputError) as err:
+        read_met(p, cat)
+    assert str(err.value) == str(line_err.value)
 
 
 def _both(rows):
@@ -275,8 +291,9 @@ def test_byte_ranges_on_two_threads_as_one_and_as_the_line_reader(
 @pytest.mark.parametrize("n_threads", [1, 2])
 def test_a_bad_cell_in_the_second_range_is_named_at_its_file_line(
         tmp_path, cat, monkeypatch, threads, n_threads):
-    """A cell that is no number in the second byte range: the fast reader declines and
-    the error names the file line of that cell (not a line counted from the range)."""
+    """A cell that is no number in the second byte range: the fast reader raises the line
+    reader's error, naming the file line of that cell (not a line counted from the
+    range), without reading the whole file line by line."""
     p = _grouped_file(tmp_path, gz=False)
     lines = p.read_text().splitlines(keepends=True)
     k = next(i for i in range(2, len(lines)) if sum(map(len, lines[:i])) > 7000)
@@ -285,16 +302,22 @@ def test_a_bad_cell_in_the_second_range_is_named_at_its_file_line(
     lines[k] = ",".join(cells)
     p.write_text("".join(lines))
     threads(n_threads)
-    assert metfast.read_met_csv_fast(p, cat, chunk_bytes=5000) is None
-    with pytest.raises(InputError, match="text in a numeric column") as err:
-        read_met(p, cat)
-    assert err.value.line == k + 1 and "ten" in str(err.value)
+    with pytest.raises(InputError, match="text in a numeric column") as line_err:
+        _line_reader(monkeypatch, p, cat)
+    assert line_err.value.line == k + 1 and "ten" in str(line_err.value)
+    from workbench.io.table import RawTable
+    monkeypatch.setattr(RawTable, "read", classmethod(lambda *a: pytest.fail("whole-file read")))
+    with pytest.raises(InputError) as err:
+        metfast.read_met_csv_fast(p, cat, chunk_bytes=5000)
+    assert str(err.value) == str(line_err.value)
 
 
-def test_a_column_of_words_in_every_range_goes_to_the_line_reader(tmp_path, cat, threads):
+def test_a_column_of_words_in_every_range_is_refused_as_the_line_reader_does(
+        tmp_path, cat, monkeypatch, threads):
     """The C parser reads a column that holds only true/false words as 1.0/0.0; the line
     reader refuses the words.  Every range holds only words (or empty cells) in one
-    column: declined on any number of threads, and the line reader names the word."""
+    column: on any number of threads the fast reader names the first word as the line
+    reader does."""
     p = _grouped_file(tmp_path, gz=False)
     lines = p.read_text().splitlines(keepends=True)
     for i in range(2, len(lines)):
@@ -303,11 +326,13 @@ def test_a_column_of_words_in_every_range_goes_to_the_line_reader(tmp_path, cat,
             cells[8] = "true" if i % 2 else "FALSE"
         lines[i] = ",".join(cells)
     p.write_text("".join(lines))
+    with pytest.raises(InputError, match="text in a numeric column") as line_err:
+        _line_reader(monkeypatch, p, cat)
     for n in (1, 2):
         threads(n)
-        assert metfast.read_met_csv_fast(p, cat, chunk_bytes=3000) is None
-    with pytest.raises(InputError, match="text in a numeric column"):
-        read_met(p, cat)
+        with pytest.raises(InputError) as err:
+            metfast.read_met_csv_fast(p, cat, chunk_bytes=3000)
+        assert str(err.value) == str(line_err.value)
 
 
 def test_gzip_of_several_members_and_a_cut_gzip(tmp_path, cat, monkeypatch, threads):
@@ -327,3 +352,36 @@ def test_gzip_of_several_members_and_a_cut_gzip(tmp_path, cat, monkeypatch, thre
     assert metfast.read_met_csv_fast(cut, cat) is None
     with pytest.raises(InputError, match="gzip"):
         read_met(cut, cat)
+
+
+def _cell(lines, k, col, value):
+    cells = lines[k].split(",")
+    cells[col] = value
+    lines[k] = ",".join(cells)
+
+
+@pytest.mark.parametrize("errors", [
+    [(40, 2, "ten"), (700, 0, "gamma")],            # the site is checked before numbers
+    [(700, 2, "ten"), (40, 7, "x")],                # wind speed before pressure
+    [(800, 7, "x"), (900, 7, "<3")],                # censored before text, in one column
+    [(30, 2, "ten"), (600, 1, "2020-03-08T12:00")],  # a repeated hour before numbers
+    [(30, 1, "2020-03-02T00:30"), (650, 1, "2020-03-08T12:00")],  # off the hour first
+    [(30, 1, "2020-03-02T00:00+01:00x"), (650, 1, "20200-03-08")],  # two bad times
+])
+@pytest.mark.parametrize("n_threads", [1, 2])
+def test_several_errors_in_several_ranges_raise_what_the_line_reader_raises(
+        tmp_path, cat, monkeypatch, threads, errors, n_threads):
+    """Errors of different kinds in different byte ranges: the line reader raises by the
+    order of its checks, not by position; the fast reader (which keeps the first row
+    of each kind) raises the same error, on one thread or two."""
+    p = _grouped_file(tmp_path, gz=False)
+    lines = p.read_text().splitlines(keepends=True)
+    for k, col, value in errors:
+        _cell(lines, k, col, value)
+    p.write_text("".join(lines))
+    with pytest.raises(InputError) as line_err:
+        _line_reader(monkeypatch, p, cat)
+    threads(n_threads)
+    with pytest.raises(InputError) as err:
+        metfast.read_met_csv_fast(p, cat, chunk_bytes=4000)
+    assert str(err.value) == str(line_err.value)

@@ -39,9 +39,10 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from ..threads import map_ordered
+from ..errors import InputError
+from ..threads import map_ordered, threads_here
 from ..units import parse_header
-from . import metchecks
+from . import metchecks, metlocate
 from .common import join_reasons, release_free_memory
 from .ledger import CodedRows, Ledger
 from .metstore import MetStore, grid_rows, load_small
@@ -50,8 +51,11 @@ from .table import _OFFSET, MISSING_TEXTS, YEARS
 
 #: Bytes of text parsed at a time (by each thread; see :func:`workbench.threads.map_ordered`).
 CHUNK_BYTES = 8 << 20
-#: Rows of met checked at a time (whole sites; the checks are per site).
+#: Rows of met checked at a time (whole sites; the checks are per site), divided among
+#: the threads (each checks a group of ``CHECK_ROWS / threads`` rows).
 CHECK_ROWS = 400_000
+#: What :func:`_checked` returns for a repeated hour (located by :mod:`.metlocate`).
+_REPEAT = object()
 #: Compressed bytes read and text bytes returned per call of zlib [byte].
 _GZ_READ, _GZ_OUT = 1 << 20, 4 << 20
 #: Blanks other than the newline (what ``\s`` matches in bytes), found by a substring
@@ -283,6 +287,8 @@ def read_met_csv_fast(path, catalogue, chunk_bytes=CHUNK_BYTES):
                 source = _Source(_plain(f))
             got = _read(source, path, catalogue, chunk_bytes, HOUR, MET_VARIABLES, convert_met,
                         size_hint)
+    except InputError:
+        raise                             # located here as the line reader locates it
     except (OSError, EOFError, ValueError, UnicodeDecodeError, zlib.error,
             pd.errors.ParserError):
         return None
@@ -328,13 +334,23 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
     with tempfile.TemporaryDirectory(prefix="workbench-metrows-") as tmp:
         rows = _Spill(Path(tmp), used[2:], len(ids))
         try:
-            ok = _parse(stream, rows, parser, chunk_bytes, size_hint)
+            ok, firsts = _parse(stream, rows, parser, chunk_bytes, size_hint, n_meta + 2)
         finally:
             rows.close()
         if not ok:
             return None
-        return _checked(rows, n_meta + 2, path, catalogue, ids, units, raw_headers, variables,
-                        hour)
+        got = None
+        if not firsts:
+            got = _checked(rows, n_meta + 2, path, catalogue, ids, units, raw_headers,
+                           variables, hour)
+            if got is not _REPEAT:
+                return got
+        before = any(k[0] in ("site", "time", "hour") for k in firsts)   # checked first
+        repeat = None if before else metlocate.first_repeat(rows, n_meta + 2, CHECK_ROWS)
+        metlocate.raise_first(path, meta, heads, raw_headers,
+                              {k: v for k, v in firsts.items()}, catalogue, label, hour,
+                              repeat, lambda line: _line_cells(path, names, line))
+        return None                    # nothing raised: the line reader judges the file
 
 
 class _Spill:
@@ -451,56 +467,96 @@ class _ChunkParser:
                              usecols=self.used, dtype=self.dtype,
                              na_values=list(MISSING_TEXTS), keep_default_na=False,
                              skip_blank_lines=False, low_memory=False)
-        except (ValueError, IndexError, TypeError, pd.errors.ParserError):
-            return None              # a cell that is no number: the line reader names it
+        except pd.errors.ParserError:
+            return None
+        except (ValueError, IndexError, TypeError):
+            return self._locate(chunk)         # a cell that is no number: located
         if len(df) != n:
             return None
         sc = df["site"].cat
         site_map = np.array([self.index.get(s, -1) for s in sc.categories], dtype=np.int32)
         codes = sc.codes.to_numpy()
         if (codes < 0).any() or (site_map[codes] < 0).any():
-            return None
+            return self._locate(chunk)
         site_idx = site_map[codes]
         tc = df["time"].cat
         tcodes = tc.codes.to_numpy()
         if (tcodes < 0).any():
-            return None
+            return self._locate(chunk)
         t = self.times.rows(tc.categories, tcodes, self.off_ns, site_idx)
         if t is None:
-            return None
+            return self._locate(chunk)
         if self.label == "start":
             t = t + self.hour
         if (t != t.astype("datetime64[h]").astype("datetime64[ns]")).any():
-            return None
+            return self._locate(chunk)
         got, words = {}, False
         for name in self.used[2:]:
             v = df[name].to_numpy(dtype=float)
             # inf is refused by the line reader; a "-0" it may read as +0 (whole-number
             # columns parse as integers there): both left to it
-            if np.isinf(v).any() or ((v == 0) & np.signbit(v)).any():
+            if ((v == 0) & np.signbit(v)).any():
                 return None
+            if np.isinf(v).any():
+                return self._locate(chunk)
             words = words or bool(((v == 0) | (v == 1) | np.isnan(v)).all())
             got[name] = self.convert(v, self.units[name], name, self.variables[name][0])
         if words and _WORDS.search(chunk):
-            return None
+            return self._locate(chunk)
         return site_idx, t, got, n, len(chunk)
 
+    def _locate(self, chunk):
+        """The first row of each kind of failure (metlocate), or None."""
+        return metlocate.suspicious_rows(chunk, self.names, self.used, self.index, self.off_ns,
+                                         self.label, self.hour)
 
-def _parse(source, rows, parser, chunk_bytes, size_hint) -> bool:
+
+def _parse(source, rows, parser, chunk_bytes, size_hint, first_line):
     """Parse the data rows chunk by chunk into `rows`, in file order, the chunks on up to
-    :func:`~workbench.threads.threads_here` threads (False: a file for the line reader)."""
+    :func:`~workbench.threads.threads_here` threads.
+
+    Returns (ok, firsts): ok False for a file for the line reader; `firsts` the first row
+    of each kind of failure (kind -> (file line, cells); see :mod:`.metlocate`).  After
+    a row without a known site or a valid hour the rows are no longer kept (the error
+    comes before any check over all rows), but every chunk is still parsed, since a
+    later row may hold an error the line reader raises first."""
     parsed = map_ordered(parser, source.chunks(chunk_bytes))
+    firsts, keep, seen = {}, True, 0
     try:
         for got in parsed:
             if got is None:
-                return False
-            site_idx, t, values, n, n_bytes = got
-            est = int(size_hint / max(n_bytes, 1) * n * 1.02) + n   # rows, from the size
-            rows.add(site_idx, t, values, est)
+                return False, {}
+            if isinstance(got, metlocate.Located):
+                for kind, (i, cells) in got.firsts.items():
+                    firsts.setdefault(kind, (first_line + seen + i, cells))
+                keep = keep and got.valid
+                site_idx, t, n, n_bytes = got.site_idx, got.t, got.n, got.n_bytes
+                values = {k: np.full(n, np.nan) for k in rows.names}
+            else:
+                site_idx, t, values, n, n_bytes = got
+            if keep:
+                est = int(size_hint / max(n_bytes, 1) * n * 1.02) + n   # rows, from the size
+                rows.add(site_idx, t, values, est)
+            seen += n
             del got, values
     finally:
         parsed.close()       # a chunk declined: the chunks still running finish first
-    return rows.n > 0
+    return seen > 0, firsts
+
+
+def _line_cells(path, names, line):
+    """The cells of file line `line` (1-based), read again from the file [-]."""
+    with open(path, "rb") as f:
+        gz = path.suffix == ".gz" or f.read(2) == b"\x1f\x8b"
+        f.seek(0)
+        seen = 0
+        for chunk in _Source(_gunzip(f) if gz else _plain(f)).chunks(CHUNK_BYTES):
+            k = chunk.count(b"\n") + (not chunk.endswith(b"\n"))
+            if seen + k >= line:
+                text = chunk.split(b"\n")[line - seen - 1].decode("utf-8")
+                return dict(zip(names, text.split(",")))
+            seen += k
+    return {}
 
 
 def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variables, hour):
@@ -559,13 +615,14 @@ def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variabl
                 "time": SimpleNamespace(values=times)})
         return grp, inv, [str(u) for u in uniq], empty, notes
 
-    checked = map_ordered(check, rows.groups(CHECK_ROWS))
+    # groups in flight: threads + 1 (map_ordered), so each is smaller on more threads
+    checked = map_ordered(check, rows.groups(max(CHECK_ROWS // threads_here(), 1)))
     try:
         for got in checked:
             if got is None:
                 checked.close()              # the groups still running finish first
                 store.remove()
-                return None
+                return _REPEAT
             grp, inv, uniq, empty, notes = got
             for u in uniq:
                 texts.setdefault(u, len(texts))
