@@ -37,7 +37,6 @@ from types import SimpleNamespace
 
 import numpy as np
 import pandas as pd
-import xarray as xr
 
 from ..errors import InputError
 from ..threads import map_ordered, threads_here
@@ -45,6 +44,7 @@ from ..units import parse_header
 from . import metchecks, metlocate
 from .common import join_reasons, release_free_memory
 from .ledger import CodedRows, Ledger
+from .linechunks import Source, gunzip, line_cells, plain
 from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
 from .table import _OFFSET, MISSING_TEXTS, YEARS
@@ -56,8 +56,6 @@ CHUNK_BYTES = 8 << 20
 CHECK_ROWS = 400_000
 #: What :func:`_checked` returns for a repeated hour (located by :mod:`.metlocate`).
 _REPEAT = object()
-#: Compressed bytes read and text bytes returned per call of zlib [byte].
-_GZ_READ, _GZ_OUT = 1 << 20, 4 << 20
 #: Blanks other than the newline (what ``\s`` matches in bytes), found by a substring
 #: search each (a regular expression over 32 MB chunks cost 10 s at 1,000 site-years).
 _BLANKS = (b" ", b"\t", b"\r", b"\f", b"\v")
@@ -98,90 +96,6 @@ def _head(stream):
         key, val = body.split(":", 1)
         meta[key.strip().lower()] = val.strip()
     return meta, len(lines), ln
-
-
-def _gunzip(f):
-    """The text of the gzip file `f` (one or more members) in blocks; zlib releases the
-    interpreter lock while it inflates, so this overlaps with the parsing threads."""
-    d, data, started = zlib.decompressobj(31), b"", False
-    while True:
-        if not data:
-            data = f.read(_GZ_READ)
-            if not data:
-                break
-        if d is None:                           # between members: zero padding or the next
-            data = data.lstrip(b"\0")
-            if not data:
-                continue
-            d = zlib.decompressobj(31)
-        started = True
-        text = d.decompress(data, _GZ_OUT)
-        data = d.unconsumed_tail
-        if d.eof:
-            data, d = d.unused_data, None
-        if text:
-            yield text
-    if d is not None and started:
-        raise EOFError("compressed file ended before the end-of-stream marker")
-
-
-def _plain(f):
-    while True:
-        block = f.read(_GZ_OUT)
-        if not block:
-            return
-        yield block
-
-
-class _Source:
-    """The text of a file: lines for the head (:meth:`readline`), then chunks of whole
-    lines (:meth:`chunks`)."""
-
-    def __init__(self, blocks):
-        self._blocks, self._buf, self._pos = blocks, b"", 0
-
-    def _more(self) -> bool:
-        block = next(self._blocks, b"")
-        if block:
-            self._buf, self._pos = self._buf[self._pos:] + block, 0
-        return bool(block)
-
-    def readline(self, limit):
-        while True:
-            i = self._buf.find(b"\n", self._pos, self._pos + limit)
-            if i >= 0 or len(self._buf) - self._pos >= limit or not self._more():
-                end = i + 1 if i >= 0 else min(len(self._buf), self._pos + limit)
-                line, self._pos = self._buf[self._pos:end], end
-                return line
-
-    def chunks(self, size):
-        """Whole lines, about `size` bytes at a time (a last line without a newline too)."""
-        pending, n = [self._buf[self._pos:]], len(self._buf) - self._pos
-        self._buf, self._pos = b"", 0
-        for block in self._blocks:
-            pending.append(block)
-            n += len(block)
-            if n < size:
-                continue
-            data, start = b"".join(pending), 0
-            while len(data) - start >= size:
-                cut = data.rfind(b"\n", start, start + size)
-                if cut < 0:
-                    cut = data.find(b"\n", start + size)
-                    if cut < 0:
-                        break
-                yield data[start:cut + 1]
-                start = cut + 1
-            pending = [data[start:]]
-            n = len(pending[0])
-        data, start = b"".join(pending), 0
-        while start < len(data):
-            cut = data.rfind(b"\n", start, start + size)
-            if cut < 0:
-                cut = data.find(b"\n", start + size)
-            end = len(data) if cut < 0 else cut + 1
-            yield data[start:end]
-            start = end
 
 
 class _Rows:
@@ -282,9 +196,9 @@ def read_met_csv_fast(path, catalogue, chunk_bytes=CHUNK_BYTES):
                 f.seek(-4, 2)           # gzip: the size of the text is in the last 4 bytes
                 size_hint = max(int.from_bytes(f.read(4), "little"), 3 * size_hint)
                 f.seek(0)
-                source = _Source(_gunzip(f))
+                source = Source(gunzip(f))
             else:
-                source = _Source(_plain(f))
+                source = Source(plain(f))
             got = _read(source, path, catalogue, chunk_bytes, HOUR, MET_VARIABLES, convert_met,
                         size_hint)
     except InputError:
@@ -349,7 +263,7 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
         repeat = None if before else metlocate.first_repeat(rows, n_meta + 2, CHECK_ROWS)
         metlocate.raise_first(path, meta, heads, raw_headers,
                               {k: v for k, v in firsts.items()}, catalogue, label, hour,
-                              repeat, lambda line: _line_cells(path, names, line))
+                              repeat, lambda line: line_cells(path, names, line, CHUNK_BYTES))
         return None                    # nothing raised: the line reader judges the file
 
 
@@ -542,21 +456,6 @@ def _parse(source, rows, parser, chunk_bytes, size_hint, first_line):
     finally:
         parsed.close()       # a chunk declined: the chunks still running finish first
     return seen > 0, firsts
-
-
-def _line_cells(path, names, line):
-    """The cells of file line `line` (1-based), read again from the file [-]."""
-    with open(path, "rb") as f:
-        gz = path.suffix == ".gz" or f.read(2) == b"\x1f\x8b"
-        f.seek(0)
-        seen = 0
-        for chunk in _Source(_gunzip(f) if gz else _plain(f)).chunks(CHUNK_BYTES):
-            k = chunk.count(b"\n") + (not chunk.endswith(b"\n"))
-            if seen + k >= line:
-                text = chunk.split(b"\n")[line - seen - 1].decode("utf-8")
-                return dict(zip(names, text.split(",")))
-            seen += k
-    return {}
 
 
 def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variables, hour):
