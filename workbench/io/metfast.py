@@ -3,27 +3,33 @@
 The line-by-line reader (:class:`~workbench.io.table.RawTable`) holds every cell of the
 file as text: for the hourly met of a large network (millions of rows) that is several
 GB and most of the reading time.  :func:`read_met_csv_fast` reads the same file in
-chunks of bytes with the C parser of pandas straight into float64 arrays (the site and
-the time as small integer codes, each distinct timestamp text parsed once) and appends
-each chunk's times and values to scratch files, keeping only the site code of each row
-(4 bytes) in memory.  It then runs the plausibility checks of
-:mod:`workbench.io.metchecks` one group of whole sites at a time (they are per site,
-so the result is the same): when each site's rows are together in the file, a group's
-rows are read site by site from the scratch files; when sites are interleaved, through
-the stable sort order of the site codes (8 more bytes a row).  Each group's checked
-values go to the site-major :class:`~workbench.io.metstore.MetStore` (read lazily per
-block of sites; a small one is read back into memory), and the ledger is kept as codes
-(:class:`~workbench.io.ledger.CodedRows`).  So the reading peak is set by the chunk and
-group sizes, not by the file (plus 13 bytes a row of ledger).
+chunks of whole lines with the C parser of pandas straight into float64 arrays (the
+site and the time as small integer codes, each distinct timestamp text parsed once).
+The chunks are parsed on the engine's threads (:func:`workbench.threads.map_ordered`,
+``WORKBENCH_THREADS``) while the calling thread inflates the gzip text
+(:mod:`.linechunks`) and appends each parsed chunk, in file order, to scratch files
+(times and values), keeping only the site code of each row (4 bytes) in memory.  It
+then runs the plausibility checks of :mod:`workbench.io.metchecks` one group of whole
+sites at a time, again on the threads (they are per site, so the result is the same):
+when each site's rows are together in the file, a group's rows are read site by site
+from the scratch files; when sites are interleaved, through the stable sort order of
+the site codes (8 more bytes a row).  Each group's checked values go to the site-major
+:class:`~workbench.io.metstore.MetStore` (read lazily per block of sites; a small one is
+read back into memory), and the ledger is kept as codes
+(:class:`~workbench.io.ledger.CodedRows`), its reasons numbered in file order.  So the
+reading peak is set by the chunk and group sizes and the threads, not by the file
+(plus 13 bytes a row of ledger).
 
 It takes only files it can read exactly as the line-by-line reader does: plain
 ``# key: value`` lines above the header, no quotes, no blanks in the data rows, no
-blank lines, ASCII data, every row with the header's number of fields, every cell a
-number, a known site and a valid timestamp, no repeated hour.  For any other file it
-returns None and :func:`workbench.io.met.read_met` reads it line by line, which gives
-the located error or handles the oddity (so the messages stay those of one reader).
-The values, the ledger and the notes are the line-by-line reader's
-(tests/io/test_metfast.py).
+blank lines, ASCII data, every row with the header's number of fields, and for the
+rows themselves every cell a number, a known site and a valid timestamp on the hour,
+no repeated hour.  An error of one row (the last conditions) it locates itself as the
+line reader does (:mod:`.metlocate`); for any other file it returns None and
+:func:`workbench.io.met.read_met` reads it line by line, which gives the located error
+or handles the oddity (so the messages stay those of one reader).  The values, the
+ledger, the notes and the errors are the line-by-line reader's, on any number of
+threads (tests/io/test_metfast.py).
 """
 from __future__ import annotations
 
@@ -261,8 +267,7 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
                 return got
         before = any(k[0] in ("site", "time", "hour") for k in firsts)   # checked first
         repeat = None if before else metlocate.first_repeat(rows, n_meta + 2, CHECK_ROWS)
-        metlocate.raise_first(path, meta, heads, raw_headers,
-                              {k: v for k, v in firsts.items()}, catalogue, label, hour,
+        metlocate.raise_first(path, meta, heads, raw_headers, firsts, catalogue, label, hour,
                               repeat, lambda line: line_cells(path, names, line, CHUNK_BYTES))
         return None                    # nothing raised: the line reader judges the file
 
