@@ -214,7 +214,7 @@ def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour
             _raise_repeat(path, raw_headers, repeat, line_text)
         return
     from .common import check_sites
-    from .met import MET_VARIABLES, _convert
+    from .metvars import MET_VARIABLES
     rows = sorted({line: cells for line, cells in firsts.values()}.items())
     lines = np.array([line for line, _ in rows], dtype=np.int64)
     frame = pd.DataFrame({c: pd.Series([cells[c] for _, cells in rows], dtype=object)
@@ -232,9 +232,9 @@ def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour
                         value=tab.frame["time"].iloc[i], expected="hourly timestamps (minutes 00)")
     if repeat is not None:
         _raise_repeat(path, raw_headers, repeat, line_text)
-    for name, (target, _, _) in MET_VARIABLES.items():
+    for name in MET_VARIABLES:         # as workbench.io.met._convert (units checked before)
         if tab.has(name):
-            _convert(tab, name, target)
+            tab.numbers(name)
 
 
 def _raise_repeat(path, raw_headers, repeat, line_text):
