@@ -182,8 +182,9 @@ def map_ordered(fn, items, max_threads: int | None = None):
     to :func:`threads_here` threads of this module's pool.
 
     The calling thread takes the items from the iterable (e.g. reads and decompresses a
-    file) and receives the results while the pool computes the next ones: at most one
-    item more than the threads is in flight, so memory is bounded by the items, not
+    file) and receives the results while the pool computes the next ones: at most as
+    many items as threads are in flight (one each; more held the memory of a chunk of
+    the met reader per item for little gain), so memory is bounded by the items, not
     their number.  With one thread (the setting, or a call from a thread other than the
     main thread) everything runs in the calling thread, one item after the other.  The
     caller's context (e.g. ``numpy.errstate``) is that of every call.  An exception of
@@ -216,7 +217,7 @@ def map_ordered(fn, items, max_threads: int | None = None):
     try:
         for item in items:
             pending.append(pool.submit(context.copy().run, fn, item))
-            if len(pending) > n:
+            if len(pending) >= n:
                 yield pending.popleft().result()
         while pending:
             yield pending.popleft().result()

@@ -257,6 +257,7 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
             ok, firsts = _parse(stream, rows, parser, chunk_bytes, size_hint, n_meta + 2)
         finally:
             rows.close()
+        release_free_memory()     # what the parsing threads freed stays in their arenas
         if not ok:
             return None
         got = None
@@ -519,7 +520,7 @@ def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variabl
                 "time": SimpleNamespace(values=times)})
         return grp, inv, [str(u) for u in uniq], empty, notes
 
-    # groups in flight: threads + 1 (map_ordered), so each is smaller on more threads
+    # groups in flight: one per thread (map_ordered), so each is smaller on more threads
     checked = map_ordered(check, rows.groups(max(CHECK_ROWS // threads_here(), 1)))
     try:
         for got in checked:
