@@ -385,3 +385,25 @@ def test_several_errors_in_several_ranges_raise_what_the_line_reader_raises(
     with pytest.raises(InputError) as err:
         metfast.read_met_csv_fast(p, cat, chunk_bytes=4000)
     assert str(err.value) == str(line_err.value)
+
+
+@pytest.mark.parametrize("n_threads", [1, 2])
+def test_a_repeated_hour_in_interleaved_sites_as_the_line_reader(
+        tmp_path, cat, monkeypatch, on_disk, threads, n_threads):
+    """Sites interleaved (the groups gather each site's rows through the sort order):
+    a repeated hour far from its first row is named at its line, with the first."""
+    a = _rows("alpha", "2020-03-01T00:00", 24 * 30)
+    b = _rows("beta", "2020-03-03T00:00", 24 * 20, seed=1)
+    rows = [r for pair in zip(a, b) for r in pair] + a[len(b):]
+    rows[900] = rows[900].split(",", 2)[0] + "," + rows[10].split(",", 2)[1] + "," \
+        + rows[900].split(",", 2)[2]
+    assert rows[900].split(",")[:2] == rows[10].split(",")[:2]
+    p = tmp_path / "met.csv"
+    p.write_text(HEAD + "".join(rows))
+    with pytest.raises(InputError, match="duplicate hourly timestamp") as line_err:
+        _line_reader(monkeypatch, p, cat)
+    threads(n_threads)
+    with pytest.raises(InputError) as err:
+        metfast.read_met_csv_fast(p, cat, chunk_bytes=3000)
+    assert str(err.value) == str(line_err.value)
+    assert "line 902" in str(err.value) and "also on line 12" in str(err.value)
