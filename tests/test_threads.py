@@ -124,3 +124,61 @@ def test_sharing_marks_the_tasks_of_several_threads_only():
     assert not T.sharing() and _array.block_size(1) == _array.BLOCK_ELEMENTS
     T.run_each(task, 3, max_threads=1)
     assert seen[0] == (False, _array.BLOCK_ELEMENTS)
+
+
+# ------------------------------------------------------------ map_ordered (the met reader)
+@pytest.mark.parametrize("n", [1, 2, 3])
+def test_map_ordered_yields_in_order_with_items_in_flight_bounded(n):
+    """Results come in the order of the items whatever order they finish in (later items
+    are made faster), and no more items than threads are taken ahead of the caller."""
+    import time
+    T.set_threads(n)
+    taken, flight = [], []
+
+    def items():
+        for i in range(12):
+            taken.append(i)
+            yield i
+
+    def fn(i):
+        time.sleep(0.002 * (12 - i))
+        return i * i
+    out = []
+    for r in T.map_ordered(fn, items()):
+        flight.append(len(taken) - len(out))
+        out.append(r)
+    assert out == [i * i for i in range(12)]
+    assert max(flight) <= n
+
+
+def test_map_ordered_stops_early_and_raises_in_order():
+    T.set_threads(2)
+    done = []
+
+    def fn(i):
+        if i == 3:
+            raise ValueError("item 3")
+        done.append(i)
+        return i
+    got = []
+    with pytest.raises(ValueError, match="item 3"):
+        for r in T.map_ordered(fn, range(50)):
+            got.append(r)
+    assert got == [0, 1, 2]
+    assert len(done) < 50                       # the items not started are dropped
+    gen = T.map_ordered(lambda i: i, range(100))
+    assert next(gen) == 0
+    gen.close()                                 # a caller that stops: nothing left running
+
+
+def test_map_ordered_off_the_main_thread_runs_in_the_caller(monkeypatch):
+    T.set_threads(4)
+    monkeypatch.setattr(T, "_get_pool", lambda n: pytest.fail("pool used off the main thread"))
+    got = {}
+
+    def worker():
+        got["r"] = list(T.map_ordered(lambda i: (i, threading.current_thread().name), range(4)))
+    t = threading.Thread(target=worker, name="not-main")
+    t.start()
+    t.join()
+    assert got["r"] == [(i, "not-main") for i in range(4)]

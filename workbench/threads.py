@@ -175,3 +175,55 @@ def run_each(task, n_items: int, max_threads: int | None = None) -> None:
         f.result()
     if failed:
         raise failed[0]
+
+
+def map_ordered(fn, items, max_threads: int | None = None):
+    """``fn(item)`` for each of `items`, yielded in the order of `items`, computed on up
+    to :func:`threads_here` threads of this module's pool.
+
+    The calling thread takes the items from the iterable (e.g. reads and decompresses a
+    file) and receives the results while the pool computes the next ones: at most as
+    many items as threads are in flight (one each; more held the memory of a chunk of
+    the met reader per item for little gain), so memory is bounded by the items, not
+    their number.  With one thread (the setting, or a call from a thread other than the
+    main thread) everything runs in the calling thread, one item after the other.  The
+    caller's context (e.g. ``numpy.errstate``) is that of every call.  An exception of
+    ``fn`` is raised when its result is due; when the caller stops early (``break``, an
+    exception, closing the generator) the items not started are dropped and the running
+    ones finish before the generator returns.
+
+    Parameters
+    ----------
+    fn : callable
+        ``fn(item)``; must not depend on the order in which items finish.
+    items : iterable
+    max_threads : int, optional
+        At most this many threads (default :func:`threads_here`).
+
+    Yields
+    ------
+    object
+        ``fn(item)`` for each item, in order.
+    """
+    n = min(threads_here(), max_threads or threads_here())
+    if n <= 1:
+        for item in items:
+            yield fn(item)
+        return
+    import collections
+    context = contextvars.copy_context()
+    pool = _get_pool(n)
+    pending = collections.deque()
+    try:
+        for item in items:
+            pending.append(pool.submit(context.copy().run, fn, item))
+            if len(pending) >= n:
+                yield pending.popleft().result()
+        while pending:
+            yield pending.popleft().result()
+    finally:
+        for f in pending:
+            f.cancel()
+        for f in pending:
+            if not f.cancelled():
+                f.exception()          # wait for it; its error is not the caller's

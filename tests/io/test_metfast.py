@@ -106,35 +106,51 @@ def test_interleaved_sites_flags_and_empty_rows(tmp_path, cat, monkeypatch, chun
     assert float(got["pressure"]) == pytest.approx(first["pressure [hPa]"] * 100.0, rel=1e-15)
 
 
-@pytest.mark.parametrize("change, message", [
-    (lambda t: t.replace("\nalpha,", '\n"alpha",', 1), None),
-    (lambda t: t.replace("alpha,", "alpha, ", 1), None),
-    (lambda t: t.replace("\nalpha,", "\n\nalpha,", 1), None),
-    (lambda t: t.replace(",1010.5,", ",ten,", 1), "text in a numeric column"),
-    (lambda t: t.replace("\nbeta,", "\ngamma,", 1), "site not in the catalogue"),
-    (lambda t: t.replace("T03:00", "T02:00", 1), "duplicate hourly timestamp"),
-    (lambda t: t.replace("T05:00", "T05:30", 1), "timestamp not on the hour"),
-    (lambda t: t.replace("T05:00", "2020-13-45", 1), "not an ISO 8601 timestamp"),
-    (lambda t: t.replace(",1010.5,", ",inf,1010.5,", 1), "malformed CSV row"),
-    (lambda t: t.replace(",1010.5,", ",1e999,", 1), "not a finite number"),
-    (lambda t: t.replace(",1010.5,", ",True,", 1), "text in a numeric column"),
-    (lambda t: t.replace(",1010.5,", ",-nan,", 1), "text in a numeric column"),
-    (lambda t: t.replace("[hPa]", "[parsec]"), "unit"),
-    (lambda t: t.replace("wind_speed", "wind"), "missing required column"),
-    (lambda t: t.replace(",x3\n", ",x3,\n", 1), "malformed CSV row"),
+@pytest.mark.parametrize("change, message, located", [
+    (lambda t: t.replace("\nalpha,", '\n"alpha",', 1), None, False),
+    (lambda t: t.replace("alpha,", "alpha, ", 1), None, False),
+    (lambda t: t.replace("\nalpha,", "\n\nalpha,", 1), None, False),
+    (lambda t: t.replace(",1010.5,", ",ten,", 1), "text in a numeric column", True),
+    (lambda t: t.replace("\nbeta,", "\ngamma,", 1), "site not in the catalogue", True),
+    (lambda t: t.replace("\nbeta,", "\n,", 1), "an empty site cell", True),
+    (lambda t: t.replace("T03:00", "T02:00", 1), "duplicate hourly timestamp", True),
+    (lambda t: t.replace("T05:00", "T05:30", 1), "timestamp not on the hour", True),
+    (lambda t: t.replace("T05:00", "2020-13-45", 1), "not an ISO 8601 timestamp", True),
+    (lambda t: t.replace("2020-03-01T05:00", "", 1), "missing timestamp", True),
+    (lambda t: t.replace("2020-03-01T05:00", "1820-03-01T05:00", 1), "outside the years", True),
+    (lambda t: t.replace(",1010.5,", ",inf,1010.5,", 1), "malformed CSV row", False),
+    (lambda t: t.replace(",1010.5,", ",1e999,", 1), "not a finite number", True),
+    (lambda t: t.replace(",1010.5,", ",<5,", 1), "censored value not allowed", True),
+    (lambda t: t.replace(",1010.5,", ",True,", 1), "text in a numeric column", True),
+    (lambda t: t.replace(",1010.5,", ",-nan,", 1), "text in a numeric column", True),
+    (lambda t: t.replace("[hPa]", "[parsec]"), "unit", False),
+    (lambda t: t.replace("wind_speed", "wind"), "missing required column", False),
+    (lambda t: t.replace(",x3\n", ",x3,\n", 1), "malformed CSV row", False),
 ])
-def test_odd_files_go_to_the_line_reader(tmp_path, cat, monkeypatch, change, message):
+def test_odd_files_go_to_the_line_reader(tmp_path, cat, monkeypatch, change, message, located):
+    """Odd but readable files go to the line reader; a file with an error of one row
+    gets the line reader's located error (file, line, column, value, expected) from the
+    fast reader itself (no whole-file read); other errors come from the line reader."""
     text = HEAD + "alpha,2020-02-28T00:00,4.6,2.3,95,0,0.0,1010.5,0,x\n" + "".join(
         _rows("alpha", "2020-03-01T00:00", 48) + _rows("beta", "2020-03-01", 48, seed=2))
     p = tmp_path / "met.csv"
     p.write_text(change(text))
-    assert metfast.read_met_csv_fast(p, cat) is None
     if message is None:
+        assert metfast.read_met_csv_fast(p, cat) is None
         assert_same(read_met(p, cat), _line_reader(monkeypatch, p, cat))
+        return
+    with pytest.raises(InputError, match=message) as line_err:
+        _line_reader(monkeypatch, p, cat)
+    assert str(p) in str(line_err.value)
+    if located:
+        with pytest.raises(InputError) as err:
+            metfast.read_met_csv_fast(p, cat)
+        assert str(err.value) == str(line_err.value)
     else:
-        with pytest.raises(InputError, match=message) as err:
-            read_met(p, cat)
-        assert str(p) in str(err.value)
+        assert metfast.read_met_csv_fast(p, cat) is None
+    with pytest.raises(InputError) as err:
+        read_met(p, cat)
+    assert str(err.value) == str(line_err.value)
 
 
 def _both(rows):
@@ -228,3 +244,166 @@ def test_store_grouped_or_interleaved_sites(tmp_path, cat, monkeypatch, on_disk,
     fast = metfast.read_met_csv_fast(p, cat, chunk_bytes=4096)
     assert fast is not None
     assert_same(fast, _line_reader(monkeypatch, p, cat))
+
+
+# ------------------------------------------------- byte ranges parsed on several threads
+@pytest.fixture()
+def threads():
+    """Set the engine's thread setting (workbench.threads) for one test."""
+    from workbench.threads import set_threads
+    yield set_threads
+    set_threads(None)
+
+
+def _grouped_file(tmp_path, gz=True):
+    """Two sites, each site's rows together (so that small byte ranges cut inside a
+    site), an empty row, RH as a fraction at beta (masked), a gap at alpha."""
+    a = _rows("alpha", "2020-03-01T00:00", 24 * 30)
+    b = _rows("beta", "2020-03-03T00:00", 24 * 25, rh_scale=0.01, seed=1)
+    a[40] = "alpha,2020-03-02T16:00,,,,,,,,\n"
+    del a[100:130]
+    text = "# station: invented\n" + HEAD + "".join(a + b)
+    p = tmp_path / ("met.csv.gz" if gz else "met.csv")
+    p.write_bytes(gzip.compress(text.encode()) if gz else text.encode())
+    return p
+
+
+@pytest.mark.parametrize("chunk", [700, 5000, 1 << 20])
+def test_byte_ranges_on_two_threads_as_one_and_as_the_line_reader(
+        tmp_path, cat, monkeypatch, on_disk, threads, chunk):
+    """Many byte ranges (cut at line ends, inside a site's rows) parsed on two threads and
+    groups of sites checked on two threads give, in file order, the values, ledger (line
+    numbers included), reasons and notes of one thread and of the line reader; so does
+    the whole file in one range."""
+    p = _grouped_file(tmp_path)
+    threads(1)
+    one = metfast.read_met_csv_fast(p, cat, chunk_bytes=chunk)
+    threads(2)
+    two = metfast.read_met_csv_fast(p, cat, chunk_bytes=chunk)
+    assert one is not None and two is not None
+    assert_same(one, two)
+    assert_same(two, _line_reader(monkeypatch, p, cat))
+    table = two[1].table
+    assert table["line"].tolist() == list(range(3, 3 + len(table)))   # meta + header above
+    assert table.loc[table["line"] == 3 + 40, "status"].item() == "rejected"
+
+
+@pytest.mark.parametrize("n_threads", [1, 2])
+def test_a_bad_cell_in_the_second_range_is_named_at_its_file_line(
+        tmp_path, cat, monkeypatch, threads, n_threads):
+    """A cell that is no number in the second byte range: the fast reader raises the line
+    reader's error, naming the file line of that cell (not a line counted from the
+    range), without reading the whole file line by line."""
+    p = _grouped_file(tmp_path, gz=False)
+    lines = p.read_text().splitlines(keepends=True)
+    k = next(i for i in range(2, len(lines)) if sum(map(len, lines[:i])) > 7000)
+    cells = lines[k].split(",")
+    cells[2] = "ten"                                     # wind speed of a row of range 2
+    lines[k] = ",".join(cells)
+    p.write_text("".join(lines))
+    threads(n_threads)
+    with pytest.raises(InputError, match="text in a numeric column") as line_err:
+        _line_reader(monkeypatch, p, cat)
+    assert line_err.value.line == k + 1 and "ten" in str(line_err.value)
+    from workbench.io.table import RawTable
+    monkeypatch.setattr(RawTable, "read", classmethod(lambda *a: pytest.fail("whole-file read")))
+    with pytest.raises(InputError) as err:
+        metfast.read_met_csv_fast(p, cat, chunk_bytes=5000)
+    assert str(err.value) == str(line_err.value)
+
+
+def test_a_column_of_words_in_every_range_is_refused_as_the_line_reader_does(
+        tmp_path, cat, monkeypatch, threads):
+    """The C parser reads a column that holds only true/false words as 1.0/0.0; the line
+    reader refuses the words.  Every range holds only words (or empty cells) in one
+    column: on any number of threads the fast reader names the first word as the line
+    reader does."""
+    p = _grouped_file(tmp_path, gz=False)
+    lines = p.read_text().splitlines(keepends=True)
+    for i in range(2, len(lines)):
+        cells = lines[i].split(",")
+        if cells[2]:
+            cells[8] = "true" if i % 2 else "FALSE"
+        lines[i] = ",".join(cells)
+    p.write_text("".join(lines))
+    with pytest.raises(InputError, match="text in a numeric column") as line_err:
+        _line_reader(monkeypatch, p, cat)
+    for n in (1, 2):
+        threads(n)
+        with pytest.raises(InputError) as err:
+            metfast.read_met_csv_fast(p, cat, chunk_bytes=3000)
+        assert str(err.value) == str(line_err.value)
+
+
+def test_gzip_of_several_members_and_a_cut_gzip(tmp_path, cat, monkeypatch, threads):
+    """A gzip file of two members (``cat a.gz b.gz``) reads as its whole text; a gzip cut
+    short is declined and the line reader names the problem."""
+    p = _grouped_file(tmp_path, gz=False)
+    text = p.read_bytes()
+    half = text.index(b"\nbeta,") + 1
+    two = tmp_path / "two.csv.gz"
+    two.write_bytes(gzip.compress(text[:half]) + gzip.compress(text[half:]))
+    threads(2)
+    fast = metfast.read_met_csv_fast(two, cat, chunk_bytes=4000)
+    assert fast is not None
+    assert_same(fast, _line_reader(monkeypatch, two, cat))
+    cut = tmp_path / "cut.csv.gz"
+    cut.write_bytes(gzip.compress(text)[:-2000])
+    assert metfast.read_met_csv_fast(cut, cat) is None
+    with pytest.raises(InputError, match="gzip"):
+        read_met(cut, cat)
+
+
+def _cell(lines, k, col, value):
+    cells = lines[k].split(",")
+    cells[col] = value
+    lines[k] = ",".join(cells)
+
+
+@pytest.mark.parametrize("errors", [
+    [(40, 2, "ten"), (700, 0, "gamma")],            # the site is checked before numbers
+    [(700, 2, "ten"), (40, 7, "x")],                # wind speed before pressure
+    [(800, 7, "x"), (900, 7, "<3")],                # censored before text, in one column
+    [(30, 2, "ten"), (600, 1, "2020-03-08T12:00")],  # a repeated hour before numbers
+    [(30, 1, "2020-03-02T00:30"), (650, 1, "2020-03-08T12:00")],  # off the hour first
+    [(30, 1, "2020-03-02T00:00+01:00x"), (650, 1, "20200-03-08")],  # two bad times
+])
+@pytest.mark.parametrize("n_threads", [1, 2])
+def test_several_errors_in_several_ranges_raise_what_the_line_reader_raises(
+        tmp_path, cat, monkeypatch, threads, errors, n_threads):
+    """Errors of different kinds in different byte ranges: the line reader raises by the
+    order of its checks, not by position; the fast reader (which keeps the first row
+    of each kind) raises the same error, on one thread or two."""
+    p = _grouped_file(tmp_path, gz=False)
+    lines = p.read_text().splitlines(keepends=True)
+    for k, col, value in errors:
+        _cell(lines, k, col, value)
+    p.write_text("".join(lines))
+    with pytest.raises(InputError) as line_err:
+        _line_reader(monkeypatch, p, cat)
+    threads(n_threads)
+    with pytest.raises(InputError) as err:
+        metfast.read_met_csv_fast(p, cat, chunk_bytes=4000)
+    assert str(err.value) == str(line_err.value)
+
+
+@pytest.mark.parametrize("n_threads", [1, 2])
+def test_a_repeated_hour_in_interleaved_sites_as_the_line_reader(
+        tmp_path, cat, monkeypatch, on_disk, threads, n_threads):
+    """Sites interleaved (the groups gather each site's rows through the sort order):
+    a repeated hour far from its first row is named at its line, with the first."""
+    a = _rows("alpha", "2020-03-01T00:00", 24 * 30)
+    b = _rows("beta", "2020-03-03T00:00", 24 * 20, seed=1)
+    rows = [r for pair in zip(a, b) for r in pair] + a[len(b):]
+    rows[900] = rows[900].split(",", 2)[0] + "," + rows[10].split(",", 2)[1] + "," \
+        + rows[900].split(",", 2)[2]
+    assert rows[900].split(",")[:2] == rows[10].split(",")[:2]
+    p = tmp_path / "met.csv"
+    p.write_text(HEAD + "".join(rows))
+    with pytest.raises(InputError, match="duplicate hourly timestamp") as line_err:
+        _line_reader(monkeypatch, p, cat)
+    threads(n_threads)
+    with pytest.raises(InputError) as err:
+        metfast.read_met_csv_fast(p, cat, chunk_bytes=3000)
+    assert str(err.value) == str(line_err.value)
+    assert "line 902" in str(err.value) and "also on line 12" in str(err.value)

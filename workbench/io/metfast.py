@@ -3,58 +3,73 @@
 The line-by-line reader (:class:`~workbench.io.table.RawTable`) holds every cell of the
 file as text: for the hourly met of a large network (millions of rows) that is several
 GB and most of the reading time.  :func:`read_met_csv_fast` reads the same file in
-chunks of bytes with the C parser of pandas straight into float64 arrays (the site and
-the time as small integer codes, each distinct timestamp text parsed once) and appends
-each chunk's times and values to scratch files, keeping only the site code of each row
-(4 bytes) in memory.  It then runs the plausibility checks of
-:mod:`workbench.io.metchecks` one group of whole sites at a time (they are per site,
-so the result is the same): when each site's rows are together in the file, a group's
-rows are read site by site from the scratch files; when sites are interleaved, through
-the stable sort order of the site codes (8 more bytes a row).  Each group's checked
-values go to the site-major :class:`~workbench.io.metstore.MetStore` (read lazily per
-block of sites; a small one is read back into memory), and the ledger is kept as codes
-(:class:`~workbench.io.ledger.CodedRows`).  So the reading peak is set by the chunk and
-group sizes, not by the file (plus 13 bytes a row of ledger).
+chunks of whole lines with the C parser of pandas straight into float64 arrays (the
+site and the time as small integer codes, each distinct timestamp text parsed once).
+The chunks are parsed on the engine's threads (:func:`workbench.threads.map_ordered`,
+``WORKBENCH_THREADS``) while the calling thread inflates the gzip text
+(:mod:`.linechunks`) and appends each parsed chunk, in file order, to scratch files
+(times and values), keeping only the site code of each row (4 bytes) in memory.  It
+then runs the plausibility checks of :mod:`workbench.io.metchecks` one group of whole
+sites at a time, again on the threads (they are per site, so the result is the same):
+when each site's rows are together in the file, a group's rows are read site by site
+from the scratch files; when sites are interleaved, through the stable sort order of
+the site codes (8 more bytes a row).  Each group's checked values go to the site-major
+:class:`~workbench.io.metstore.MetStore` (read lazily per block of sites; a small one is
+read back into memory), and the ledger is kept as codes
+(:class:`~workbench.io.ledger.CodedRows`), its reasons numbered in file order.  So the
+reading peak is set by the chunk and group sizes and the threads, not by the file
+(plus 13 bytes a row of ledger).
 
 It takes only files it can read exactly as the line-by-line reader does: plain
 ``# key: value`` lines above the header, no quotes, no blanks in the data rows, no
-blank lines, ASCII data, every row with the header's number of fields, every cell a
-number, a known site and a valid timestamp, no repeated hour.  For any other file it
-returns None and :func:`workbench.io.met.read_met` reads it line by line, which gives
-the located error or handles the oddity (so the messages stay those of one reader).
-The values, the ledger and the notes are the line-by-line reader's
-(tests/io/test_metfast.py).
+blank lines, ASCII data, every row with the header's number of fields, and for the
+rows themselves every cell a number, a known site and a valid timestamp on the hour,
+no repeated hour.  An error of one row (the last conditions) it locates itself as the
+line reader does (:mod:`.metlocate`); for any other file it returns None and
+:func:`workbench.io.met.read_met` reads it line by line, which gives the located error
+or handles the oddity (so the messages stay those of one reader).  The values, the
+ledger, the notes and the errors are the line-by-line reader's, on any number of
+threads (tests/io/test_metfast.py).
 """
 from __future__ import annotations
 
-import gzip
 import io
 import re
 import tempfile
+import threading
+import zlib
 from pathlib import Path
+from types import SimpleNamespace
 
 import numpy as np
 import pandas as pd
-import xarray as xr
 
+from ..errors import InputError
+from ..threads import map_ordered, threads_here
 from ..units import parse_header
-from . import metchecks
+from . import metchecks, metlocate
 from .common import join_reasons, release_free_memory
 from .ledger import CodedRows, Ledger
+from .linechunks import Source, gunzip, line_cells, plain
 from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
 from .table import _OFFSET, MISSING_TEXTS, YEARS
 
-#: Bytes of text parsed at a time.
-CHUNK_BYTES = 32 << 20
-#: Rows of met checked at a time (whole sites; the checks are per site).
+#: Bytes of text parsed at a time (by each thread; see :func:`workbench.threads.map_ordered`).
+CHUNK_BYTES = 8 << 20
+#: Rows of met checked at a time (whole sites; the checks are per site), divided among
+#: the threads (each checks a group of ``CHECK_ROWS / threads`` rows).
 CHECK_ROWS = 400_000
+#: What :func:`_checked` returns for a repeated hour (located by :mod:`.metlocate`).
+_REPEAT = object()
 #: Blanks other than the newline (what ``\s`` matches in bytes), found by a substring
 #: search each (a regular expression over 32 MB chunks cost 10 s at 1,000 site-years).
 _BLANKS = (b" ", b"\t", b"\r", b"\f", b"\v")
-#: Texts without which no cell is a word of :data:`_WORDS` (searched first, as fast).
-_WORD_PARTS = (b"rue", b"RUE", b"alse", b"ALSE")
 #: Cells the C parser reads as a number but the line reader refuses ("True" is 1.0 there).
+#: The parser does so only for a column of the chunk whose every cell is such a word or
+#: missing (a word beside a number is an error), so the text is searched only when a
+#: column holds nothing but 0, 1 and NaN (a search of every chunk cost 1.5 s at 1,000
+#: site-years).
 _WORDS = re.compile(rb"(?:^|,)(?:[Tt]rue|TRUE|[Ff]alse|FALSE)(?=,|\n|$)", re.MULTILINE)
 
 
@@ -89,24 +104,6 @@ def _head(stream):
     return meta, len(lines), ln
 
 
-def _chunks(stream, size):
-    """Whole lines of `stream`, about `size` bytes at a time."""
-    rest = b""
-    while True:
-        block = stream.read(size)
-        if not block:
-            if rest:
-                yield rest
-            return
-        block = rest + block
-        cut = block.rfind(b"\n")
-        if cut < 0:
-            rest = block
-            continue
-        rest = block[cut + 1:]
-        yield block[:cut + 1]
-
-
 class _Rows:
     """A column of the whole file, filled chunk by chunk into one array (grown when the
     estimate was short): per-chunk pieces kept until the end would fragment the heap
@@ -131,39 +128,50 @@ class _Rows:
 
 
 class _TimeTexts:
-    """Timestamp texts parsed once each (a network repeats every hour once per site)."""
+    """Timestamp texts parsed once each (a network repeats every hour once per site);
+    shared by the parsing threads (the table grows under a lock)."""
 
     def __init__(self):
         self.text = pd.Index([], dtype=object)
         self.value = np.empty(0, dtype="datetime64[ns]")
         self.aware = np.empty(0, bool)
+        self._lock = threading.Lock()
+
+    def _lookup(self, cats):
+        """Positions of `cats` in the table (new texts parsed and added), the values and
+        the offset flags; None when a text is no valid time."""
+        with self._lock:
+            where = self.text.get_indexer(cats)
+            new = where < 0
+            if new.any():
+                text = pd.Series(np.asarray(cats[new], dtype=object))
+                aware = text.str.contains(_OFFSET).to_numpy()
+                parsed = np.empty(len(text), dtype="datetime64[ns]")
+                for sel, utc in ((aware, True), (~aware, False)):
+                    if not sel.any():
+                        continue
+                    t = pd.to_datetime(text[sel], format="ISO8601", utc=utc, errors="coerce")
+                    if utc:
+                        t = t.dt.tz_localize(None)
+                    tv = t.to_numpy().astype("datetime64[ns]")
+                    if np.isnat(tv).any() or ((tv < YEARS[0]) | (tv >= YEARS[1])).any():
+                        return None
+                    parsed[sel] = tv
+                where[new] = len(self.text) + np.arange(int(new.sum()))
+                self.text = self.text.append(pd.Index(text.to_numpy(dtype=object)))
+                self.value = np.concatenate([self.value, parsed])
+                self.aware = np.concatenate([self.aware, aware])
+            return where, self.value, self.aware
 
     def rows(self, cats, codes, off_ns, site_idx):
         """End-of-row times [ns] (UTC) of a chunk; None when a text is no valid time."""
-        cats = pd.Index(np.asarray(cats, dtype=object))
-        where = self.text.get_indexer(cats)
-        new = where < 0
-        if new.any():
-            text = pd.Series(np.asarray(cats[new], dtype=object))
-            aware = text.str.contains(_OFFSET).to_numpy()
-            parsed = np.empty(len(text), dtype="datetime64[ns]")
-            for sel, utc in ((aware, True), (~aware, False)):
-                if not sel.any():
-                    continue
-                t = pd.to_datetime(text[sel], format="ISO8601", utc=utc, errors="coerce")
-                if utc:
-                    t = t.dt.tz_localize(None)
-                tv = t.to_numpy().astype("datetime64[ns]")
-                if np.isnat(tv).any() or ((tv < YEARS[0]) | (tv >= YEARS[1])).any():
-                    return None
-                parsed[sel] = tv
-            where[new] = len(self.text) + np.arange(int(new.sum()))
-            self.text = self.text.append(pd.Index(text.to_numpy(dtype=object)))
-            self.value = np.concatenate([self.value, parsed])
-            self.aware = np.concatenate([self.aware, aware])
+        got = self._lookup(pd.Index(np.asarray(cats, dtype=object)))
+        if got is None:
+            return None
+        where, value, aware = got
         k = where[codes]
-        t = self.value[k]
-        naive = ~self.aware[k]
+        t = value[k]
+        naive = ~aware[k]
         t[naive] = t[naive] - off_ns[site_idx[naive]]
         return t
 
@@ -189,16 +197,20 @@ def read_met_csv_fast(path, catalogue, chunk_bytes=CHUNK_BYTES):
         with open(path, "rb") as f:
             magic = f.read(2)
             f.seek(0)
-            stream = gzip.GzipFile(fileobj=f) if path.suffix == ".gz" or magic == b"\x1f\x8b" \
-                else f
             size_hint = path.stat().st_size
-            if stream is not f:         # gzip: the size of the text is in the last 4 bytes
-                f.seek(-4, 2)
+            if path.suffix == ".gz" or magic == b"\x1f\x8b":
+                f.seek(-4, 2)           # gzip: the size of the text is in the last 4 bytes
                 size_hint = max(int.from_bytes(f.read(4), "little"), 3 * size_hint)
                 f.seek(0)
-            got = _read(stream, path, catalogue, chunk_bytes, HOUR, MET_VARIABLES, convert_met,
+                source = Source(gunzip(f))
+            else:
+                source = Source(plain(f))
+            got = _read(source, path, catalogue, chunk_bytes, HOUR, MET_VARIABLES, convert_met,
                         size_hint)
-    except (OSError, EOFError, ValueError, UnicodeDecodeError, pd.errors.ParserError):
+    except InputError:
+        raise                             # located here as the line reader locates it
+    except (OSError, EOFError, ValueError, UnicodeDecodeError, zlib.error,
+            pd.errors.ParserError):
         return None
     return got
 
@@ -238,17 +250,27 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
             return None
         units[n] = unit
     ids = np.array(list(catalogue.ids), dtype=object)
+    parser = _ChunkParser(names, used, units, catalogue, ids, hour, label, convert, variables)
     with tempfile.TemporaryDirectory(prefix="workbench-metrows-") as tmp:
         rows = _Spill(Path(tmp), used[2:], len(ids))
         try:
-            ok = _parse(stream, rows, names, used, units, catalogue, ids, chunk_bytes, hour,
-                        label, convert, variables, size_hint)
+            ok, firsts = _parse(stream, rows, parser, chunk_bytes, size_hint, n_meta + 2)
         finally:
             rows.close()
+        release_free_memory()     # what the parsing threads freed stays in their arenas
         if not ok:
             return None
-        return _checked(rows, n_meta + 2, path, catalogue, ids, units, raw_headers, variables,
-                        hour)
+        got = None
+        if not firsts:
+            got = _checked(rows, n_meta + 2, path, catalogue, ids, units, raw_headers,
+                           variables, hour)
+            if got is not _REPEAT:
+                return got
+        before = any(k[0] in ("site", "time", "hour") for k in firsts)   # checked first
+        repeat = None if before else metlocate.first_repeat(rows, n_meta + 2, CHECK_ROWS)
+        metlocate.raise_first(path, meta, heads, raw_headers, firsts, catalogue, label, hour,
+                              repeat, lambda line: line_cells(path, names, line, CHUNK_BYTES))
+        return None                    # nothing raised: the line reader judges the file
 
 
 class _Spill:
@@ -335,57 +357,111 @@ class _Spill:
             i = j
 
 
-def _parse(stream, rows, names, used, units, catalogue, ids, chunk_bytes, hour, label,
-           convert, variables, size_hint) -> bool:
-    """Parse the data rows chunk by chunk into `rows` (False: a file for the line reader)."""
-    index = {s: i for i, s in enumerate(ids)}
-    off_ns = (catalogue.utc_offsets(ids) * 3600e9).astype("timedelta64[ns]")
-    dtype = {"site": "category", "time": "category", **{n: "float64" for n in used[2:]}}
-    times = _TimeTexts()
-    cells = len(names)
-    for chunk in _chunks(stream, chunk_bytes):
-        n = chunk.count(b"\n") + (not chunk.endswith(b"\n"))
-        if (not chunk.isascii() or b'"' in chunk or b"\n\n" in chunk or chunk[:1] == b"\n"
-                or any(b in chunk for b in _BLANKS) or chunk.count(b",") != n * (cells - 1)
-                or (any(w in chunk for w in _WORD_PARTS) and _WORDS.search(chunk))):
-            return False
-        try:
-            df = pd.read_csv(io.BytesIO(chunk), header=None, names=names,
-                             usecols=used, dtype=dtype, na_values=list(MISSING_TEXTS),
-                             keep_default_na=False, skip_blank_lines=False)
-        except (ValueError, IndexError, TypeError, pd.errors.ParserError):
-            return False             # a cell that is no number: the line reader names it
+class _ChunkParser:
+    """Parse one chunk of whole data lines (called on several threads at once): the
+    rows' site codes, end-of-hour times [ns] (UTC) and converted values, or None for a
+    chunk only the line reader may judge."""
+
+    def __init__(self, names, used, units, catalogue, ids, hour, label, convert, variables):
+        self.names, self.used, self.units = names, used, units
+        self.index = {s: i for i, s in enumerate(ids)}
+        self.off_ns = (catalogue.utc_offsets(ids) * 3600e9).astype("timedelta64[ns]")
+        self.dtype = {"site": "category", "time": "category",
+                      **{n: "float64" for n in used[2:]}}
+        self.hour, self.label, self.convert, self.variables = hour, label, convert, variables
+        self.times = _TimeTexts()
+
+    def __call__(self, chunk):
+        if not chunk.isascii() or any(b in chunk for b in _BLANKS):
+            return None
+        text = np.frombuffer(chunk, np.uint8)         # numpy: no interpreter lock held
+        ends = np.flatnonzero(text == 10)
+        n = len(ends) + (not chunk.endswith(b"\n"))
+        if ((len(ends) and (ends[0] == 0 or (np.diff(ends) == 1).any()))   # a blank line
+                or np.count_nonzero(text == 34)                            # a quote
+                or np.count_nonzero(text == 44) != n * (len(self.names) - 1)):
+            return None
+        del text, ends
+        try:             # low_memory=False: one pass over the chunk, no pieces to join
+            df = pd.read_csv(io.BytesIO(chunk), header=None, names=self.names,
+                             usecols=self.used, dtype=self.dtype,
+                             na_values=list(MISSING_TEXTS), keep_default_na=False,
+                             skip_blank_lines=False, low_memory=False)
+        except pd.errors.ParserError:
+            return None
+        except (ValueError, IndexError, TypeError):
+            return self._locate(chunk)         # a cell that is no number: located
         if len(df) != n:
-            return False
+            return None
         sc = df["site"].cat
-        site_map = np.array([index.get(s, -1) for s in sc.categories], dtype=np.int32)
+        site_map = np.array([self.index.get(s, -1) for s in sc.categories], dtype=np.int32)
         codes = sc.codes.to_numpy()
         if (codes < 0).any() or (site_map[codes] < 0).any():
-            return False
+            return self._locate(chunk)
         site_idx = site_map[codes]
         tc = df["time"].cat
         tcodes = tc.codes.to_numpy()
         if (tcodes < 0).any():
-            return False
-        t = times.rows(tc.categories, tcodes, off_ns, site_idx)
+            return self._locate(chunk)
+        t = self.times.rows(tc.categories, tcodes, self.off_ns, site_idx)
         if t is None:
-            return False
-        if label == "start":
-            t = t + hour
+            return self._locate(chunk)
+        if self.label == "start":
+            t = t + self.hour
         if (t != t.astype("datetime64[h]").astype("datetime64[ns]")).any():
-            return False
-        got = {}
-        for name in used[2:]:
+            return self._locate(chunk)
+        got, words = {}, False
+        for name in self.used[2:]:
             v = df[name].to_numpy(dtype=float)
             # inf is refused by the line reader; a "-0" it may read as +0 (whole-number
             # columns parse as integers there): both left to it
-            if np.isinf(v).any() or ((v == 0) & np.signbit(v)).any():
-                return False
-            got[name] = convert(v, units[name], name, variables[name][0])
-        est = int(size_hint / max(len(chunk), 1) * n * 1.02) + n   # rows, from the size
-        rows.add(site_idx, t, got, est)
-        del df, got
-    return rows.n > 0
+            if ((v == 0) & np.signbit(v)).any():
+                return None
+            if np.isinf(v).any():
+                return self._locate(chunk)
+            words = words or bool(((v == 0) | (v == 1) | np.isnan(v)).all())
+            got[name] = self.convert(v, self.units[name], name, self.variables[name][0])
+        if words and _WORDS.search(chunk):
+            return self._locate(chunk)
+        return site_idx, t, got, n, len(chunk)
+
+    def _locate(self, chunk):
+        """The first row of each kind of failure (metlocate), or None."""
+        return metlocate.suspicious_rows(chunk, self.names, self.used, self.index, self.off_ns,
+                                         self.label, self.hour)
+
+
+def _parse(source, rows, parser, chunk_bytes, size_hint, first_line):
+    """Parse the data rows chunk by chunk into `rows`, in file order, the chunks on up to
+    :func:`~workbench.threads.threads_here` threads.
+
+    Returns (ok, firsts): ok False for a file for the line reader; `firsts` the first row
+    of each kind of failure (kind -> (file line, cells); see :mod:`.metlocate`).  After
+    a row without a known site or a valid hour the rows are no longer kept (the error
+    comes before any check over all rows), but every chunk is still parsed, since a
+    later row may hold an error the line reader raises first."""
+    parsed = map_ordered(parser, source.chunks(chunk_bytes))
+    firsts, keep, seen = {}, True, 0
+    try:
+        for got in parsed:
+            if got is None:
+                return False, {}
+            if isinstance(got, metlocate.Located):
+                for kind, (i, cells) in got.firsts.items():
+                    firsts.setdefault(kind, (first_line + seen + i, cells))
+                keep = keep and got.valid
+                site_idx, t, n, n_bytes = got.site_idx, got.t, got.n, got.n_bytes
+                values = {k: np.full(n, np.nan) for k in rows.names}
+            else:
+                site_idx, t, values, n, n_bytes = got
+            if keep:
+                est = int(size_hint / max(n_bytes, 1) * n * 1.02) + n   # rows, from the size
+                rows.add(site_idx, t, values, est)
+            seen += n
+            del got, values
+    finally:
+        parsed.close()       # a chunk declined: the chunks still running finish first
+    return seen > 0, firsts
 
 
 def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variables, hour):
@@ -399,17 +475,26 @@ def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variabl
     t0 = rows.t_min
     n_t = int((rows.t_max - t0) // hour) + 1
     times = t0 + np.arange(n_t) * hour
+    t0_ns, hour_ns = int(t0.astype("datetime64[ns]").view(np.int64)), int(hour / np.timedelta64(1, "ns"))
     store = MetStore(rows.names, len(site_ids), n_t)
     reason_codes = np.zeros(n, np.int32)
     rejected = np.zeros(n, bool)
     texts = {"": 0}
     gap_notes = []
-    for grp in rows.groups(CHECK_ROWS):
+
+    def check(grp):
+        """One group of whole sites (on a thread): None for a repeated hour, else the
+        rows, their reasons (as codes into `uniq`), their emptiness and the gap notes."""
         tt, st = rows.read("time", grp), site[grp]
-        by_t = np.lexsort((tt, st))
-        if ((tt[by_t][1:] == tt[by_t][:-1]) & (st[by_t][1:] == st[by_t][:-1])).any():
-            store.remove()
-            return None                                   # a repeated hour: the line reader
+        tv = tt.view(np.int64)
+        lo_t = tv.min()
+        span = int((tv.max() - lo_t) // hour_ns) + 1     # (site, hour) as one integer
+        key = (st.astype(np.int64) - int(st.min())) * span + (tv - lo_t) // hour_ns
+        if not (key[1:] > key[:-1]).all():    # rows not in (site, hour) order: sort them
+            key = np.sort(key)
+            if (key[1:] == key[:-1]).any():
+                return None                               # a repeated hour: the line reader
+        del key
         sub = {k: rows.read(k, grp) for k in rows.names}
         empty = np.ones(len(grp), bool)
         for v in sub.values():
@@ -421,20 +506,37 @@ def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variabl
                                                                    "no values in the row",
                                                                    object)])
         inv, uniq = pd.factorize(reasons)
-        for u in uniq:
-            texts.setdefault(str(u), len(texts))
-        reason_codes[grp] = np.array([texts[str(u)] for u in uniq], np.int32)[inv]
-        rejected[grp] = empty
+        notes = []
         keep = ~empty
         if keep.any():
             r = rank[st[keep]]
             lo, hi = int(r.min()), int(r.max()) + 1
-            grids, present = grid_rows(sub, keep, r - lo, (tt[keep] - t0) // hour, hi - lo, n_t)
+            grids, present = grid_rows(sub, keep, r - lo, (tv[keep] - t0_ns) // hour_ns,
+                                       hi - lo, n_t)
             store.write(lo, grids, present)
-            gap_notes += metchecks.describe_gaps(xr.Dataset(
-                {"row_present": (("site", "time"), present)},
-                coords={"site": site_ids[lo:hi], "time": times}))
-        del sub, tt, st
+            notes = metchecks.describe_gaps({   # what it reads of a Dataset, without one
+                "row_present": SimpleNamespace(values=present),
+                "site": SimpleNamespace(values=np.array(site_ids[lo:hi], dtype=object)),
+                "time": SimpleNamespace(values=times)})
+        return grp, inv, [str(u) for u in uniq], empty, notes
+
+    # groups in flight: one per thread (map_ordered), so each is smaller on more threads
+    checked = map_ordered(check, rows.groups(max(CHECK_ROWS // threads_here(), 1)))
+    try:
+        for got in checked:
+            if got is None:
+                checked.close()              # the groups still running finish first
+                store.remove()
+                return _REPEAT
+            grp, inv, uniq, empty, notes = got
+            for u in uniq:
+                texts.setdefault(u, len(texts))
+            reason_codes[grp] = np.array([texts[u] for u in uniq], np.int32)[inv]
+            rejected[grp] = empty
+            gap_notes += notes
+            del got, grp, inv, empty
+    finally:
+        checked.close()
     line_dtype = np.int32 if first_line + n < 2**31 else np.int64
     ledger = Ledger.for_codes(CodedRows(
         str(path), np.arange(first_line, first_line + n, dtype=line_dtype), site, ids,

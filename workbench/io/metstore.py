@@ -209,11 +209,12 @@ def grid_rows(values: dict, keep, si, ti, n_sites, n_times):
     (dict of str to numpy.ndarray, numpy.ndarray of bool)
         Each variable's grid (NaN where no row) and ``row_present``.
     """
+    at = np.asarray(si, np.int64) * n_times + ti          # flat positions, computed once
     grids = {}
     for name, v in values.items():
         g = np.full((n_sites, n_times), np.nan)
-        g[si, ti] = v[keep]
+        g.reshape(-1)[at] = v[keep]
         grids[name] = g
     present = np.zeros((n_sites, n_times), bool)
-    present[si, ti] = True
+    present.reshape(-1)[at] = True
     return grids, present

@@ -1,0 +1,245 @@
+"""The located error of a met CSV whose cells the chunked reader refused, without a
+whole-file read.
+
+The line-by-line reader (:class:`~workbench.io.table.RawTable` and
+:func:`workbench.io.met.read_met`) holds every cell of a file as text; at 1,000
+site-years that is several GB just to print the error of one bad cell.  Its checks
+run in a fixed order (unknown sites, timestamps, hours off the whole hour, repeated
+hours, then each variable's numbers), and within a check the first row of the file
+that fails it is named.  So the error it raises is fixed by the first row of the
+file of each *kind* of failure: :func:`suspicious_rows` finds, in a chunk the fast
+parser refused, the first row of each kind (by the same tests as the line reader);
+the chunked reader keeps the first of each kind over the file; :func:`raise_first`
+puts those few rows (with their file line numbers) into a small ``RawTable`` and
+runs the line reader's own checks on it, with the repeated hours found over all rows
+(:func:`first_repeat`).  A good row never fails a check, so the checks fail on the
+small table exactly where they fail on the whole file.
+
+Chunks with what is not a failure of one row (blank lines, quotes, blanks, rows of
+the wrong length, a ``-0``) and kinds not covered here still go to the line reader
+with the whole file (the caller returns None).  tests/io/test_metfast.py holds the
+errors to the line reader's.
+"""
+from __future__ import annotations
+
+import io
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from ..errors import InputError
+from .table import _OFFSET, MISSING_TEXTS, YEARS, RawTable
+
+
+class Located:
+    """What :func:`suspicious_rows` found in one chunk.
+
+    Attributes
+    ----------
+    site_idx : numpy.ndarray of int32
+        Catalogue position of each row's site (-1: not in the catalogue).
+    t : numpy.ndarray of datetime64[ns]
+        End of each row's hour (UTC); NaT where the time is missing or not valid.
+    firsts : dict
+        Kind -> (row in the chunk, {column name: cell text}) of the first row of
+        each kind of failure.
+    n, n_bytes : int
+        Rows and bytes of the chunk.
+    """
+
+    def __init__(self, site_idx, t, firsts, n, n_bytes):
+        self.site_idx, self.t, self.firsts, self.n, self.n_bytes = site_idx, t, firsts, n, n_bytes
+
+    @property
+    def valid(self) -> bool:
+        """Every row has a known site and a valid time on the whole hour."""
+        return not any(k[0] in ("site", "time", "hour") for k in self.firsts)
+
+
+def suspicious_rows(chunk, names, used, index, off_ns, label, hour):
+    """The first row of each kind of failure in a chunk the fast parser refused.
+
+    Parameters
+    ----------
+    chunk : bytes
+        Whole data lines (ASCII, no quotes, blanks or blank lines, each line with the
+        header's number of fields).
+    names : list of str
+        Column names of the header.
+    used : list of str
+        ``site``, ``time`` and the met variables of the file.
+    index : dict
+        Site id -> catalogue position.
+    off_ns : numpy.ndarray of timedelta64[ns]
+        UTC offset of each catalogue site.
+    label : {"end", "start"}
+        What the timestamps label.
+    hour : numpy.timedelta64
+
+    Returns
+    -------
+    Located or None
+        None where the chunk holds no such failure (its oddity is for the line reader)
+        or a row that the line reader would drop (every cell empty).
+    """
+    try:
+        df = pd.read_csv(io.BytesIO(chunk), header=None, names=names, dtype=str,
+                         keep_default_na=False, na_filter=False, skip_blank_lines=False,
+                         index_col=False)
+    except (ValueError, pd.errors.ParserError):
+        return None
+    if (df == "").all(axis=1).any():
+        return None
+    n = len(df)
+    firsts = {}
+
+    def first(kind, sel):
+        sel = np.asarray(sel, bool)
+        if sel.any() and kind not in firsts:
+            i = int(np.flatnonzero(sel)[0])
+            firsts[kind] = (i, {c: str(df[c].iat[i]) for c in used})
+
+    sites = df["site"].to_numpy(dtype=object)
+    site_idx = np.array([index.get(s, -1) for s in sites], dtype=np.int32)
+    first(("site",), site_idx < 0)
+    s = df["time"]
+    t = np.full(n, np.datetime64("NaT"), dtype="datetime64[ns]")
+    first(("time", "missing"), (s == "").to_numpy())
+    aware = s.str.contains(_OFFSET).to_numpy()
+    for sub, utc in ((aware, True), (~aware, False)):
+        sel = sub & (s != "").to_numpy()
+        if not sel.any():
+            continue
+        p = pd.to_datetime(s[sel], format="ISO8601", utc=utc, errors="coerce")
+        if utc:
+            p = p.dt.tz_localize(None)
+        tv = p.to_numpy().astype("datetime64[ns]")
+        bad = np.isnat(tv)
+        odd = ~bad & ((tv < YEARS[0]) | (tv >= YEARS[1]))
+        where = np.flatnonzero(sel)
+        first(("time", utc, "years"), np.isin(np.arange(n), where[odd]))
+        first(("time", utc, "bad"), np.isin(np.arange(n), where[bad]))
+        ok = where[~bad & ~odd]
+        tv = tv[~bad & ~odd]
+        if not utc:
+            known = site_idx[ok] >= 0
+            tv = np.where(known, tv - off_ns[np.maximum(site_idx[ok], 0)], np.datetime64("NaT"))
+        t[ok] = tv
+    if label == "start":
+        t = t + hour
+    good = ~np.isnat(t)
+    off_hour = good & (t != t.astype("datetime64[h]").astype("datetime64[ns]"))
+    first(("hour",), off_hour)
+    t[off_hour] = np.datetime64("NaT")
+    for name in used[2:]:
+        cells = df[name]
+        v = pd.to_numeric(cells, errors="coerce").to_numpy(dtype=float)
+        odd = np.isnan(v)
+        first((name, "censored"), odd & cells.str.startswith("<").to_numpy())
+        first((name, "text"), odd & ~cells.isin(MISSING_TEXTS).to_numpy())
+        first((name, "inf"), np.isinf(v))
+    if not firsts:
+        return None
+    return Located(site_idx, t, firsts, n, len(chunk))
+
+
+def first_repeat(rows, first_line, limit):
+    """The first row of the file that repeats a site's hour, and that hour's first row.
+
+    Parameters
+    ----------
+    rows : workbench.io.metfast._Spill
+        Every row's site and time.
+    first_line : int
+        File line of row 0.
+    limit : int
+        Rows per group of whole sites.
+
+    Returns
+    -------
+    (int, int) or None
+        File lines of the repeating row and of the first row of its site and hour
+        (as ``pandas.DataFrame.duplicated`` marks them in the line reader).
+    """
+    best = None
+    for grp in rows.groups(limit):
+        st = rows.site[grp].astype(np.int64)
+        tv = rows.read("time", grp).view(np.int64)
+        order = np.lexsort((grp, tv, st))            # by site, hour, then file row
+        same = (st[order][1:] == st[order][:-1]) & (tv[order][1:] == tv[order][:-1])
+        if not same.any():
+            continue
+        rep = grp[order[1:][same]]
+        j = int(np.argmin(rep))
+        i = int(rep[j])
+        k = np.flatnonzero(same)[j]                    # back to the first of the run
+        while k > 0 and same[k - 1]:
+            k -= 1
+        if best is None or i < best[0]:
+            best = (i, int(grp[order[k]]))
+    if best is None:
+        return None
+    return best[0] + first_line, best[1] + first_line
+
+
+def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour, repeat,
+                line_text):
+    """Raise the line reader's error from the first rows of each kind (or return).
+
+    Parameters
+    ----------
+    path : Path
+    meta : dict
+        ``# key: value`` lines of the file.
+    headers, raw_headers : dict
+        Column name -> :class:`~workbench.units.Header` and -> header text.
+    firsts : dict
+        Kind -> (file line, {column name: cell text}), the first of each kind.
+    catalogue : SiteCatalogue
+    label : {"end", "start"}
+    hour : numpy.timedelta64
+    repeat : (int, int) or None
+        From :func:`first_repeat` (None: no repeated hour, or not looked for).
+    line_text : callable
+        ``line_text(line)`` -> the cells of that file line (for the repeated hour).
+
+    Raises
+    ------
+    InputError
+        As :func:`workbench.io.met.read_met` raises it for the whole file.
+    """
+    if not firsts:
+        if repeat is not None:
+            _raise_repeat(path, raw_headers, repeat, line_text)
+        return
+    from .common import check_sites
+    from .metvars import MET_VARIABLES
+    rows = sorted({line: cells for line, cells in firsts.values()}.items())
+    lines = np.array([line for line, _ in rows], dtype=np.int64)
+    frame = pd.DataFrame({c: pd.Series([cells[c] for _, cells in rows], dtype=object)
+                          for c in rows[0][1]})
+    tab = RawTable(Path(path), meta, frame, lines, {c: headers[c] for c in frame.columns},
+                   {c: raw_headers[c] for c in frame.columns})
+    sites = check_sites(tab, catalogue)
+    t = tab.times("time", catalogue.utc_offsets(sites))
+    if label == "start":
+        t = t + hour
+    off_hour = (t - t.astype("datetime64[h]").astype("datetime64[ns]")) != np.timedelta64(0, "ns")
+    if off_hour.any():                          # as workbench.io.met.check_hours
+        i = int(np.flatnonzero(off_hour)[0])
+        raise tab.error("timestamp not on the hour", row=i, column="time",
+                        value=tab.frame["time"].iloc[i], expected="hourly timestamps (minutes 00)")
+    if repeat is not None:
+        _raise_repeat(path, raw_headers, repeat, line_text)
+    for name in MET_VARIABLES:         # as workbench.io.met._convert (units checked before)
+        if tab.has(name):
+            tab.numbers(name)
+
+
+def _raise_repeat(path, raw_headers, repeat, line_text):
+    """The line reader's error for a repeated hour (workbench.io.met.check_hours)."""
+    line, first = repeat
+    raise InputError("duplicate hourly timestamp", file=Path(path), line=line,
+                     column=raw_headers["time"], value=line_text(line)["time"],
+                     expected=f"one row per site and hour (also on line {first})")
