@@ -1,4 +1,8 @@
 """Tiny input files for reader tests (invented sites)."""
+import numpy as np
+import pandas as pd
+
+from workbench.io.metchecks import solar_elevation_deg
 
 SITES = """\
 [[site]]
@@ -68,3 +72,25 @@ def met_text(n_hours=48, site="alpha", start="2020-01-07T01:00", rh_unit="%", rh
     return "\n".join(rows) + "\n"
 
 
+def plausible_met_csv(tmp_path, n_days=3, site="alpha", offset=1, **cols):
+    """met.csv of a plausible hourly record for the invented site alpha (lat 52, lon 5, UTC+1);
+    `cols` replace columns (a scalar or one value per hour)."""
+    t_local = pd.date_range("2020-06-01T01:00", periods=24 * n_days, freq="h")
+    t_utc = t_local - pd.Timedelta(hours=offset)
+    elev = solar_elevation_deg((t_utc - pd.Timedelta("30min")).values, 52.0, 5.0)
+    df = pd.DataFrame({
+        "site": site, "time": t_local.strftime("%Y-%m-%dT%H:%M"),
+        "wind_speed [m/s]": 3.0, "temperature [degC]": 15.0, "relative_humidity [%]": 70.0,
+        "solar_radiation [W/m2]": np.round(np.clip(900 * np.sin(np.deg2rad(elev)), 0, None), 1),
+        "precipitation [mm]": np.where(np.arange(len(t_local)) % 17 == 0, 1.0, 0.0),
+        "pressure [hPa]": 1010.0})
+    for k, v in cols.items():
+        df[k] = v
+    p = tmp_path / "met.csv"
+    df.to_csv(p, index=False)
+    return p
+
+
+def ledger_reasons(led):
+    """The set of single reasons in a ledger's table."""
+    return set(led.table["reason"].str.split("; ").explode()) - {""}

@@ -31,3 +31,11 @@ def write(tmp_path):
         p.write_text(textwrap.dedent(text) if text.startswith("\n") else text)
         return p
     return _write
+
+
+@pytest.fixture
+def cat(tmp_path):
+    """The tiny site catalogue, read."""
+    from workbench.io import read_sites
+    (tmp_path / "sites.toml").write_text(SITES)
+    return read_sites(tmp_path / "sites.toml")

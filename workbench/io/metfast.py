@@ -150,10 +150,7 @@ class _TimeTexts:
                 for sel, utc in ((aware, True), (~aware, False)):
                     if not sel.any():
                         continue
-                    t = pd.to_datetime(text[sel], format="ISO8601", utc=utc, errors="coerce")
-                    if utc:
-                        t = t.dt.tz_localize(None)
-                    tv = t.to_numpy().astype("datetime64[ns]")
+                    tv = metlocate.parse_iso(text[sel], utc)
                     if np.isnat(tv).any() or ((tv < YEARS[0]) | (tv >= YEARS[1])).any():
                         return None
                     parsed[sel] = tv

@@ -57,6 +57,18 @@ class Located:
         return not any(k[0] in ("site", "time", "hour") for k in self.firsts)
 
 
+def parse_iso(text: pd.Series, utc: bool) -> np.ndarray:
+    """ISO 8601 time texts as datetime64[ns]; NaT where a text is no time.
+
+    `utc`: the texts carry an offset (converted to UTC, the zone dropped); else they are
+    naive and returned as written (local standard time, shifted by the caller).
+    """
+    t = pd.to_datetime(text, format="ISO8601", utc=utc, errors="coerce")
+    if utc:
+        t = t.dt.tz_localize(None)
+    return t.to_numpy().astype("datetime64[ns]")
+
+
 def suspicious_rows(chunk, names, used, index, off_ns, label, hour):
     """The first row of each kind of failure in a chunk the fast parser refused.
 
@@ -111,10 +123,7 @@ def suspicious_rows(chunk, names, used, index, off_ns, label, hour):
         sel = sub & (s != "").to_numpy()
         if not sel.any():
             continue
-        p = pd.to_datetime(s[sel], format="ISO8601", utc=utc, errors="coerce")
-        if utc:
-            p = p.dt.tz_localize(None)
-        tv = p.to_numpy().astype("datetime64[ns]")
+        tv = parse_iso(s[sel], utc)
         bad = np.isnat(tv)
         odd = ~bad & ((tv < YEARS[0]) | (tv >= YEARS[1]))
         where = np.flatnonzero(sel)
