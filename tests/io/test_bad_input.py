@@ -59,7 +59,7 @@ def test_mixing_ratio_in_precipitation(write, cat):
 def test_text_in_numeric_column(write, cat):
     p = _precip(write, [ROW.replace(",4.8,", ",acid,")])
     _raises(read_precipitation, p, cat, match="p.csv, line 2, column 'pH': text in a numeric "
-            "column: got 'acid', expected a number (or empty for missing)")
+            "column: got 'acid', expected a number (or empty, NA, N/A, NaN or - for missing)")
 
 
 def test_negative_depth(write, cat):
