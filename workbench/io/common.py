@@ -47,7 +47,8 @@ def check_time_zones(tab: RawTable, sites, names=("start", "end"), mask=None):
     network file merged from several loggers), but every label of one site, the start
     and the end of every row alike, must carry the same convention: a row with a zoned
     start and a naive end would silently gain or lose the site's offset in its period.
-    The first label that differs from its site's first label is reported.
+    The site's convention is that of most of its labels (on a tie, of its first
+    label); the first label that differs from it is reported.
 
     Parameters
     ----------
@@ -67,22 +68,27 @@ def check_time_zones(tab: RawTable, sites, names=("start", "end"), mask=None):
     z, site = z[rows], np.asarray(sites)[rows]
     if z.all() or not z.any():
         return
-    first = pd.Series(z[:, 0]).groupby(site).transform("first").to_numpy()
+    # the site's convention: that of most of its labels (a tie: its first label's)
+    g = pd.DataFrame({"site": site, "share": z.mean(axis=1), "first": z[:, 0]}).groupby("site")
+    share = g["share"].transform("mean").to_numpy()
+    first = np.where(share == 0.5, g["first"].transform("first").to_numpy(), share > 0.5)
     off = z != first[:, None]
     if not off.any():
         return
     r, c = (int(x[0]) for x in np.nonzero(off))
     i = int(rows[r])
-    k = int(np.flatnonzero(site == site[r])[0])
+    same = (site == site[r]) & (z[:, 0] == first[r])
+    k = int(np.flatnonzero(same)[0]) if same.any() else r
     ref = int(rows[k])
+    ref_col = 0 if same.any() else 1 - c
     own = tab.frame[names[c]].iloc[i]
     kind = "with a time zone" if z[r, c] else "without a time zone (naive)"
     other = "with a zone (Z or +hh:mm)" if first[r] else "without a zone"
-    raise tab.error(f"time labels of site {site[r]!r} mix zoned and naive timestamps: this "
+    raise tab.error(f"time labels of site {str(site[r])!r} mix zoned and naive timestamps: this "
                     f"one is {kind}", row=i, column=names[c], value=own,
                     expected=f"every start and end of the site {other}, as "
-                    f"{tab.raw_headers.get(names[0], names[0])} "
-                    f"{tab.frame[names[0]].iloc[ref]!r} on line {int(tab.lines[ref])} (a naive "
+                    f"{tab.raw_headers.get(names[ref_col], names[ref_col])} "
+                    f"{tab.frame[names[ref_col]].iloc[ref]!r} on line {int(tab.lines[ref])} (a naive "
                     "label is the site's local standard time, utc_offset_h; add the zone to "
                     "every label or to none)")
 

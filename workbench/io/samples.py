@@ -285,7 +285,20 @@ def read_precipitation(path, catalogue, flag_map=None):
         dvars[f"{sp}_censored"] = ("sample", c[keep])
         dvars[f"{sp}_detection_limit"] = ("sample", dl[keep], {"units": "mol m-3"})
     ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path)})
+    ledger.notes.extend(_unit_slips(tab, ds, ion_cols))
     return ds, ledger
+
+
+def _unit_slips(tab, ds, ion_cols, options=None) -> list[str]:
+    """Notes on a likely unit slip in a column (:func:`workbench.wet.unitslip.unit_slip_notes`)."""
+    from ..wet.options import WetOptions
+    from ..wet.unitslip import unit_slip_notes
+    units = {sp: (tab.raw_headers[name], tab.unit_of(name), tab.headers[name].basis)
+             for sp, name in ion_cols.items()}
+    for col in ("gauge_depth", "sample_depth"):
+        if tab.has(col):
+            units[col] = (tab.raw_headers[col], tab.unit_of(col), None)
+    return unit_slip_notes(ds, units, tab.path.name, options or WetOptions())
 
 
 _REF = re.compile(r"^\s*(?P<t>[-+\d.eE]+)\s*(?P<tu>degC|K|°C)\s*[,;]\s*(?P<p>[-+\d.eE]+)\s*(?P<pu>Pa|hPa|kPa|atm|mbar)\s*$")

@@ -330,7 +330,8 @@ class RawTable:
         """The ledger note counting the texts read as missing ("" when there were none),
         e.g. ``p.csv: read as missing: SO4 [mg/L] 'NA' x2 (lines 4, 9)``."""
         parts = []
-        for name, seen in self.missing_seen.items():
+        for name in (c for c in self.frame.columns if c in self.missing_seen):
+            seen = self.missing_seen[name]
             for text, rows in seen.items():
                 lines = ", ".join(str(int(x)) for x in self.lines[rows[:5]])
                 more = f" and {len(rows) - 5} more" if len(rows) > 5 else ""
