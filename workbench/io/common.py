@@ -88,9 +88,9 @@ def check_time_zones(tab: RawTable, sites, names=("start", "end"), mask=None):
                     f"one is {kind}", row=i, column=names[c], value=own,
                     expected=f"every start and end of the site {other}, as "
                     f"{tab.raw_headers.get(names[ref_col], names[ref_col])} "
-                    f"{tab.frame[names[ref_col]].iloc[ref]!r} on line {int(tab.lines[ref])} (a naive "
-                    "label is the site's local standard time, utc_offset_h; add the zone to "
-                    "every label or to none)")
+                    f"{tab.frame[names[ref_col]].iloc[ref]!r} on line {int(tab.lines[ref])} "
+                    "(a naive label is the site's local standard time, utc_offset_h; add the zone "
+                    "to every label or to none)")
 
 
 def check_overlaps(tab: RawTable, sites, samplers, start, end, mask=None, what="sample"):
