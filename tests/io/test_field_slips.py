@@ -119,7 +119,8 @@ def test_air_missing_texts_are_missing_and_counted(tmp_path):
     assert np.isnan(ds["NH3"].values[1])
     note = [n for n in led.notes if "read as missing" in n]
     assert note == ["a.csv: cells read as missing (as empty cells): SO2 [ug/m3] 'n/a' x1 "
-                    "(line 3); SO2 [ug/m3] 'NA' x1 (line 5); NH3 [ug/m3] 'NA' x1 (line 4)"], led.notes
+                    "(line 3); SO2 [ug/m3] 'NA' x1 (line 5); NH3 [ug/m3] 'NA' x1 (line 4)"], \
+        led.notes
 
 
 def test_clean_file_has_no_missing_note(tmp_path):
@@ -137,7 +138,7 @@ def test_not_detected_words_are_refused_with_the_limit_hint(tmp_path, text):
            f"write '<limit', e.g. '<0.02'): got '{text}'" in msg, msg
 
 
-@pytest.mark.parametrize("text", ["1,5", "approx 2", "1.5 mg/L", "?"])
+@pytest.mark.parametrize("text", ["approx 2", "1.5 mg/L", "?"])
 def test_other_texts_stay_refused(tmp_path, text):
     lines = list(P_LINES)
     lines[1] = lines[1].replace(",1.5,0.3,", f',"{text}",0.3,')
@@ -171,3 +172,26 @@ def test_site_id_in_another_case_is_named(tmp_path, fn, lines, name):
     msg = _error(fn, _write(tmp_path, name, lines), _cat(tmp_path))
     assert "column 'site': site not in the catalogue (differs from the catalogue's 'alpha' " \
            "only in case or blanks: site ids are compared exactly): got 'Alpha'" in msg, msg
+
+
+# ------------------------------------------------------------- hints on other slips
+@pytest.mark.parametrize("value,hint", [
+    ('"1,5"', "(a decimal comma? write a decimal point, e.g. '1.5')"),
+])
+def test_decimal_comma_in_a_quoted_cell(tmp_path, value, hint):
+    lines = list(P_LINES)
+    lines[1] = lines[1].replace(",1.5,0.3,", f",{value},0.3,")
+    msg = _error(read_precipitation, _write(tmp_path, "p.csv", lines), _cat(tmp_path))
+    assert f"line 2, column 'SO4 [mg/L]': text in a numeric column {hint}: got '1,5'" in msg, msg
+
+
+@pytest.mark.parametrize("stamp,hint", [
+    ("2020-01-14T24:00", "(24:00? write 00:00 of the next day)"),
+    ("14/01/2020 09:00", "(a date in day/month or month/day order? write year-month-day"),
+])
+def test_timestamp_slips_get_a_hint(tmp_path, stamp, hint):
+    lines = list(A_LINES)
+    lines[2] = lines[2].replace(",2020-01-14T09:00,", f",{stamp},")
+    msg = _error(read_air, _write(tmp_path, "a.csv", lines), _cat(tmp_path))
+    assert f"line 3, column 'end': not an ISO 8601 timestamp {hint}" in msg, msg
+    assert f"got '{stamp}'" in msg, msg

@@ -263,8 +263,11 @@ class RawTable:
             if bad.any():
                 i = int(odd[np.flatnonzero(bad)[0]])
                 what = "text in a numeric column"
-                if str(s.iloc[i]).strip().lower() in _NOT_DETECTED:
+                cell = str(s.iloc[i]).strip()
+                if cell.lower() in _NOT_DETECTED:
                     what += " (a 'not detected' code? write '<limit', e.g. '<0.02')"
+                elif re.fullmatch(r"[-+<]?\d+,\d+", cell):
+                    what += " (a decimal comma? write a decimal point, e.g. '1.5')"
                 allowed = ("or empty, NA, N/A, NaN or - for missing" if missing == "samples"
                            else "or empty for missing")
                 raise self.error(what, row=i, column=name, value=s.iloc[i],
@@ -322,6 +325,11 @@ class RawTable:
             hint = ""
             if re.fullmatch(r"\d{5}(\.\d*)?", str(s.loc[idx])):
                 hint = " (an Excel date serial number? format the column as a date first)"
+            elif re.search(r"[T ]24:00", str(s.loc[idx])):
+                hint = " (24:00? write 00:00 of the next day)"
+            elif re.match(r"\d{1,2}[./]\d{1,2}[./]\d{2,4}", str(s.loc[idx])):
+                hint = (" (a date in day/month or month/day order? write year-month-day, "
+                        "e.g. 2020-01-09T14:00)")
             raise self.error("not an ISO 8601 timestamp" + hint, row=int(idx), column=name,
                              value=s.loc[idx], expected="a timestamp such as 2020-01-09T14:00 "
                              "or 2020-01-09T14:00+01:00")
