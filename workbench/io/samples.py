@@ -169,8 +169,16 @@ def read_precipitation(path, catalogue, flag_map=None):
     Raises
     ------
     InputError
-        Missing column, bad unit, text in a numeric column, negative depth, pH outside
-        0-14, end before start, overlapping samples, unknown site or flag code, empty file.
+        Missing column, bad unit, text in a numeric column (``NA``, ``N/A``, ``NaN``,
+        ``-`` are missing, counted in the ledger notes), negative depth, pH outside
+        0-14, end before start, overlapping samples, time labels of a site mixing zoned
+        and naive timestamps, unknown site or flag code, empty file.
+
+    Notes
+    -----
+    A likely unit slip (most samples of a site failing the ion balance or the capture
+    check together, mended by another unit of one column) is named in the ledger notes
+    (:func:`workbench.wet.unitslip.unit_slip_notes`).
     """
     tab, n, sites, start, end, samplers = _interval_table(path, catalogue, PRECIP_REQUIRED)
     repeat, repeat_why = duplicate_rows(tab, sites, samplers, start, end, "sample")
