@@ -95,6 +95,18 @@ def _ib_fail(cations, anions, options):
     return np.isfinite(idiff), np.isfinite(idiff) & (np.abs(idiff) > limit), idiff
 
 
+def _suspects(sites, evaluated, *directions) -> list:
+    """The sites where more than :data:`SHARE` of the evaluated samples fail in one of
+    the `directions` (bool arrays); counted in one group-by, so the search for a unit
+    runs only at those few sites."""
+    cols = {f"d{i}": np.asarray(d, bool) for i, d in enumerate(directions)}
+    g = pd.DataFrame({"site": sites, "n": np.asarray(evaluated, bool), **cols}).groupby(
+        "site", sort=True).sum()
+    n = g["n"].to_numpy()
+    hit = (g[list(cols)].to_numpy() > SHARE * n[:, None]).any(axis=1) & (n > 0)
+    return list(g.index[hit])
+
+
 def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
                     options: WetOptions = WetOptions()) -> list[str]:
     """Notes naming a likely unit slip, one per site and column.
@@ -128,7 +140,7 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
     eqs, cations, anions = _ion_balance(samples, options)
     evaluated, fail, idiff = _ib_fail(cations, anions, options)
     # ion balance: one candidate (ion, unit) per site, the one that mends the most samples
-    for site in np.unique(sites):
+    for site in _suspects(sites, evaluated, fail & (idiff < 0), fail & (idiff > 0)):
         at = sites == site
         n_eval = int((evaluated & at).sum())
         for sign, side in ((-1, "anions high"), (1, "cations high")):
@@ -145,11 +157,12 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
                     f = _factor(unit, other, ion, basis)
                     if _same_unit(f):
                         continue
-                    extra = (f - 1.0) * np.nan_to_num(eqs[ion])
-                    c2, a2 = ((cations + extra, anions) if ion in qa.BALANCE_CATIONS
-                              else (cations, anions + extra))
+                    idx = np.flatnonzero(failing)        # only the failing samples
+                    extra = (f - 1.0) * np.nan_to_num(eqs[ion][idx])
+                    c2, a2 = ((cations[idx] + extra, anions[idx]) if ion in qa.BALANCE_CATIONS
+                              else (cations[idx], anions[idx] + extra))
                     _, fail2, _ = _ib_fail(c2, a2, options)
-                    mended = int((failing & ~fail2).sum())
+                    mended = int((~fail2).sum())
                     if mended > SHARE * k and (best is None or mended > best[0]):
                         best = (mended, ion, header, unit, other)
             if best is not None:
@@ -166,7 +179,7 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
         lo, hi = options.capture_unknown
         ratio = qa.capture_ratio(sample, gauge, options.capture_min_depth)
         ok = np.isfinite(ratio)
-        for site in np.unique(sites):
+        for site in _suspects(sites, ok, ratio > hi, ratio < lo):
             at = sites == site
             n_eval = int((ok & at).sum())
             for failing, side in (((ratio > hi) & at, "high"), ((ratio < lo) & at, "low")):
@@ -183,11 +196,13 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
                         f = _factor(unit, other, None)
                         if _same_unit(f):
                             continue
+                        idx = np.flatnonzero(failing)    # only the failing samples
+                        g, v = gauge[idx], sample[idx]
                         if col == "gauge_depth":
-                            r2 = qa.capture_ratio(sample, gauge * f, options.capture_min_depth)
+                            r2 = qa.capture_ratio(v, g * f, options.capture_min_depth)
                         else:
-                            r2 = qa.capture_ratio(sample * f, gauge, options.capture_min_depth)
-                        mended = int((failing & (r2 >= lo) & (r2 <= hi)).sum())
+                            r2 = qa.capture_ratio(v * f, g, options.capture_min_depth)
+                        mended = int(((r2 >= lo) & (r2 <= hi)).sum())
                         if mended > SHARE * k and (best is None or mended > best[0]):
                             best = (mended, col, header, unit, other)
                 if best is not None:
