@@ -59,7 +59,7 @@ def test_mixing_ratio_in_precipitation(write, cat):
 def test_text_in_numeric_column(write, cat):
     p = _precip(write, [ROW.replace(",4.8,", ",acid,")])
     _raises(read_precipitation, p, cat, match="p.csv, line 2, column 'pH': text in a numeric "
-            "column: got 'acid', expected a number (or empty for missing)")
+            "column: got 'acid', expected a number (or empty, NA, N/A, NaN or - for missing)")
 
 
 def test_negative_depth(write, cat):
@@ -134,7 +134,8 @@ def test_header_only(write, cat):
 def test_bad_timestamp(write, cat):
     p = _precip(write, [ROW.replace("2020-01-07T09:00", "07/01/2020 09:00")])
     _raises(read_precipitation, p, cat, match="p.csv, line 2, column 'start': not an ISO 8601 "
-            "timestamp: got '07/01/2020 09:00'")
+            "timestamp (a date in day/month or month/day order? write year-month-day, e.g. "
+            "2020-01-09T14:00): got '07/01/2020 09:00'")
 
 
 def test_unknown_flag_code(write, cat):

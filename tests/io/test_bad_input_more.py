@@ -41,7 +41,8 @@ CSV_CASES = {
         ["a.csv, line 2: tab-separated header", "got 'site\\tstart", "expected comma-separated"]),
     "decimal_comma_quoted": (
         read_precipitation, "p.csv", _text(PRECIP, (",12.0,", ',"12,0",')),
-        ["p.csv, line 2, column 'gauge_depth [mm]': text in a numeric column: got '12,0'",
+        ["p.csv, line 2, column 'gauge_depth [mm]': text in a numeric column (a decimal "
+         "comma? write a decimal point, e.g. '1.5'): got '12,0'",
          "expected a number"]),
     "excel_date_serial": (
         read_precipitation, "p.csv", _text(PRECIP, ("2020-01-07T09:00,2020-01-14T09:00,w1",

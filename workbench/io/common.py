@@ -19,6 +19,10 @@ def check_sites(tab: RawTable, catalogue) -> np.ndarray:
             hint = " (a repeated header line? keep one header at the top)"
         elif sites[i] == "":
             hint = " (an empty site cell)"
+        elif sites[i].strip().lower() in {c.lower() for c in catalogue.ids}:
+            same = next(c for c in catalogue.ids if c.lower() == sites[i].strip().lower())
+            hint = (f" (differs from the catalogue's {same!r} only in case or blanks: site "
+                    "ids are compared exactly)")
         elif sites[i].strip().lower().startswith(("total", "sum", "mean", "average")):
             hint = " (a totals or summary row from a spreadsheet? remove it)"
         raise tab.error("site not in the catalogue" + hint, row=i, column="site", value=sites[i],
@@ -33,6 +37,60 @@ def check_intervals(tab: RawTable, start, end):
         i = int(np.flatnonzero(bad)[0])
         raise tab.error("end before start", row=i, column="end", value=tab.frame["end"].iloc[i],
                         expected=f"a time after the start {tab.frame['start'].iloc[i]}")
+
+
+def check_time_zones(tab: RawTable, sites, names=("start", "end"), mask=None):
+    """Raise when the time labels of one site mix zoned and naive timestamps.
+
+    A zoned label (``Z``, ``+01:00``) is read as written; a naive one as the site's
+    local standard time (``utc_offset_h``).  A file may hold sites of either kind (a
+    network file merged from several loggers), but every label of one site, the start
+    and the end of every row alike, must carry the same convention: a row with a zoned
+    start and a naive end would silently gain or lose the site's offset in its period.
+    The site's convention is that of most of its labels (on a tie, of its first
+    label); the first label that differs from it is reported.
+
+    Parameters
+    ----------
+    sites : ndarray of str
+        Site of each row.
+    names : tuple of str
+        The timestamp columns, already parsed by :meth:`RawTable.times`.
+    mask : ndarray of bool, optional
+        Rows taking part (exact repeats dropped before are left out).
+    """
+    if not all(n in tab.zoned for n in names):
+        return
+    z = np.stack([tab.zoned[n] for n in names], axis=1)          # (row, column)
+    rows = np.arange(len(sites)) if mask is None else np.flatnonzero(mask)
+    if len(rows) == 0:
+        return
+    z, site = z[rows], np.asarray(sites)[rows]
+    if z.all() or not z.any():
+        return
+    # the site's convention: that of most of its labels (a tie: its first label's)
+    g = pd.DataFrame({"site": site, "share": z.mean(axis=1), "first": z[:, 0]}).groupby("site")
+    share = g["share"].transform("mean").to_numpy()
+    first = np.where(share == 0.5, g["first"].transform("first").to_numpy(), share > 0.5)
+    off = z != first[:, None]
+    if not off.any():
+        return
+    r, c = (int(x[0]) for x in np.nonzero(off))
+    i = int(rows[r])
+    same = (site == site[r]) & (z[:, 0] == first[r])
+    k = int(np.flatnonzero(same)[0]) if same.any() else r
+    ref = int(rows[k])
+    ref_col = 0 if same.any() else 1 - c
+    own = tab.frame[names[c]].iloc[i]
+    kind = "with a time zone" if z[r, c] else "without a time zone (naive)"
+    other = "with a zone (Z or +hh:mm)" if first[r] else "without a zone"
+    raise tab.error(f"time labels of site {str(site[r])!r} mix zoned and naive timestamps: this "
+                    f"one is {kind}", row=i, column=names[c], value=own,
+                    expected=f"every start and end of the site {other}, as "
+                    f"{tab.raw_headers.get(names[ref_col], names[ref_col])} "
+                    f"{tab.frame[names[ref_col]].iloc[ref]!r} on line {int(tab.lines[ref])} "
+                    "(a naive label is the site's local standard time, utc_offset_h; add the zone "
+                    "to every label or to none)")
 
 
 def check_overlaps(tab: RawTable, sites, samplers, start, end, mask=None, what="sample"):

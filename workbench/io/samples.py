@@ -18,8 +18,8 @@ from ..constants import GAS_CONSTANT
 from ..errors import InputError, suggest
 from ..units import Q_, convert_plain, to_amount
 from . import plausible as _plausible
-from .common import (check_intervals, check_overlaps, check_sites, duplicate_rows, join_reasons,
-                     unit_error)
+from .common import (check_intervals, check_overlaps, check_sites, check_time_zones,
+                     duplicate_rows, join_reasons, unit_error)
 from .ledger import Ledger
 from .table import RawTable
 
@@ -69,7 +69,7 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None):
     for sp, name in cols.items():
         h = tab.headers[name]
         unit = tab.unit_of(name)
-        raw, cens = tab.numbers(name, censoring=True)
+        raw, cens = tab.numbers(name, censoring=True, missing="samples")
         try:
             amount, kind = to_amount(raw, unit, sp, h.basis)
         except ValueError as exc:
@@ -169,16 +169,25 @@ def read_precipitation(path, catalogue, flag_map=None):
     Raises
     ------
     InputError
-        Missing column, bad unit, text in a numeric column, negative depth, pH outside
-        0-14, end before start, overlapping samples, unknown site or flag code, empty file.
+        Missing column, bad unit, text in a numeric column (``NA``, ``N/A``, ``NaN``,
+        ``-`` are missing, counted in the ledger notes), negative depth, pH outside
+        0-14, end before start, overlapping samples, time labels of a site mixing zoned
+        and naive timestamps, unknown site or flag code, empty file.
+
+    Notes
+    -----
+    A likely unit slip (most samples of a site failing the ion balance or the capture
+    check together, mended by another unit of one column) is named in the ledger notes
+    (:func:`workbench.wet.unitslip.unit_slip_notes`).
     """
     tab, n, sites, start, end, samplers = _interval_table(path, catalogue, PRECIP_REQUIRED)
     repeat, repeat_why = duplicate_rows(tab, sites, samplers, start, end, "sample")
+    check_time_zones(tab, sites, mask=~repeat)
     check_overlaps(tab, sites, samplers, start, end, mask=~repeat)
     parts = [repeat_why]
 
     def depth(name):
-        raw, unit = tab.numbers(name), tab.unit_of(name)
+        raw, unit = tab.numbers(name, missing="samples"), tab.unit_of(name)
         try:
             v = convert_plain(raw, unit, "mm")
         except ValueError as exc:
@@ -198,7 +207,8 @@ def read_precipitation(path, catalogue, flag_map=None):
     if tab.has("sample_depth"):
         sample = depth("sample_depth")
     elif tab.has("sample_volume") and tab.has("collector_area"):
-        raw_vol, raw_area = tab.numbers("sample_volume"), tab.numbers("collector_area")
+        raw_vol = tab.numbers("sample_volume", missing="samples")
+        raw_area = tab.numbers("collector_area", missing="samples")
         u_vol, u_area = tab.unit_of("sample_volume"), tab.unit_of("collector_area")
         try:
             vol = convert_plain(raw_vol, u_vol, "m**3")
@@ -218,14 +228,15 @@ def read_precipitation(path, catalogue, flag_map=None):
     else:
         sample = np.full(n, np.nan)
         parts.append(np.full(n, "no sample depth or volume column", object))
-    ph = tab.numbers("pH") if tab.has("pH") else np.full(n, np.nan)
+    ph = tab.numbers("pH", missing="samples") if tab.has("pH") else np.full(n, np.nan)
     bad = (ph < 0) | (ph > 14)
     if bad.any():
         i = int(np.flatnonzero(bad)[0])
         raise tab.error("pH outside 0-14", row=i, column="pH", value=tab.frame["pH"].iloc[i],
                         expected="a pH between 0 and 14")
     if tab.has("conductivity"):
-        raw_cond, u_cond = tab.numbers("conductivity"), tab.unit_of("conductivity")
+        raw_cond = tab.numbers("conductivity", missing="samples")
+        u_cond = tab.unit_of("conductivity")
         try:
             cond = convert_plain(raw_cond, u_cond, "uS/cm")
         except ValueError as exc:
@@ -255,6 +266,8 @@ def read_precipitation(path, catalogue, flag_map=None):
     ledger = Ledger.for_rows(tab.path, tab.lines, sites, reasons, empty)
     if unknown:
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
+    if tab.missing_note():
+        ledger.notes.append(tab.missing_note())
     if flag_note:
         ledger.notes.append(f"{tab.path.name}: {flag_note}")
     keep = ~empty
@@ -280,7 +293,20 @@ def read_precipitation(path, catalogue, flag_map=None):
         dvars[f"{sp}_censored"] = ("sample", c[keep])
         dvars[f"{sp}_detection_limit"] = ("sample", dl[keep], {"units": "mol m-3"})
     ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path)})
+    ledger.notes.extend(_unit_slips(tab, ds, ion_cols))
     return ds, ledger
+
+
+def _unit_slips(tab, ds, ion_cols, options=None) -> list[str]:
+    """Notes on a likely unit slip in a column (:func:`workbench.wet.unitslip.unit_slip_notes`)."""
+    from ..wet.options import WetOptions
+    from ..wet.unitslip import unit_slip_notes
+    units = {sp: (tab.raw_headers[name], tab.unit_of(name), tab.headers[name].basis)
+             for sp, name in ion_cols.items()}
+    for col in ("gauge_depth", "sample_depth"):
+        if tab.has(col):
+            units[col] = (tab.raw_headers[col], tab.unit_of(col), None)
+    return unit_slip_notes(ds, units, tab.path.name, options or WetOptions())
 
 
 _REF = re.compile(r"^\s*(?P<t>[-+\d.eE]+)\s*(?P<tu>degC|K|°C)\s*[,;]\s*(?P<p>[-+\d.eE]+)\s*(?P<pu>Pa|hPa|kPa|atm|mbar)\s*$")
@@ -332,6 +358,7 @@ def read_air(path, catalogue, reference_state=None):
         raise InputError("no species columns", file=tab.path, line=tab.header_line,
                          expected="at least one of " + ", ".join(_species.AIR_GASES + _species.AIR_PARTICLES))
     repeat, repeat_why = duplicate_rows(tab, sites, samplers, start, end, "air")
+    check_time_zones(tab, sites, mask=~repeat)
     for sp, name in cols.items():
         u = tab.headers[name].unit or ""
         if re.search(r"/\s*[munµ]?[lL]\b", u):
@@ -382,6 +409,8 @@ def read_air(path, catalogue, reference_state=None):
     unknown = tab.unknown_columns(known)
     if unknown:
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
+    if tab.missing_note():
+        ledger.notes.append(tab.missing_note())
     keep = ~empty
     dvars = {
         "site": ("period", sites[keep].astype(str)),

@@ -25,8 +25,16 @@ _OFFSET = re.compile(r"[T ]\d\d.*(?:Z|[+-]\d\d(?::?\d\d)?)$")
 
 #: Timestamps outside [YEARS[0], YEARS[1]) are typing slips in the year (common practice).
 YEARS = (np.datetime64("1900-01-01", "ns"), np.datetime64("2100-01-01", "ns"))
-#: Cell texts read as a missing number.
+#: Cell texts read as a missing number by the met reader (kept as they were).
 MISSING_TEXTS = ("", "NA", "NaN", "nan")
+#: Cell texts read as a missing number in the sample and air files, compared after
+#: stripping and lower-casing ("NA", "N/A", "NaN", "-" as spreadsheets and lab systems
+#: write them; common practice).  Each non-empty one is counted in the ledger notes
+#: (:meth:`RawTable.missing_note`), so none is lost silently.
+SAMPLE_MISSING_TEXTS = ("", "na", "n/a", "nan", "-", "--")
+#: Texts that mean "below detection" written as words: an error with the ``<limit`` hint
+#: (turning them into a missing value would drop a measured absence; common practice).
+_NOT_DETECTED = ("nd", "n.d.", "bdl", "<dl", "<lod", "lod", "dl", "not detected", "trace", "tr")
 #: Any blank but the line break (what ``str.strip`` removes, as ``str.isspace``): the
 #: cells are stripped only when the data rows hold one, or a quote (a quoted cell may
 #: end in a line break); a pass over every cell of a large file costs a good part of
@@ -88,6 +96,11 @@ class RawTable:
     lines: np.ndarray
     headers: dict
     raw_headers: dict = field(default_factory=dict)
+    #: column name -> {missing-value text as typed: [row indices]} of the non-empty
+    #: texts read as missing (filled by :meth:`numbers` with ``missing="samples"``).
+    missing_seen: dict = field(default_factory=dict)
+    #: column name -> bool array: the timestamp carries a zone (``Z`` or an offset).
+    zoned: dict = field(default_factory=dict)
 
     # ------------------------------------------------------------------ reading
     @classmethod
@@ -209,11 +222,18 @@ class RawTable:
     def text(self, name) -> np.ndarray:
         return self.frame[name].to_numpy(dtype=object).astype(str)
 
-    def numbers(self, name, *, censoring=False):
+    def numbers(self, name, *, censoring=False, missing="met"):
         """Parse a numeric column.
 
         One parse of the whole column; the text checks look only at the cells that did
         not parse (most columns have none).
+
+        Parameters
+        ----------
+        missing : {"met", "samples"}
+            Which texts mean missing: :data:`MISSING_TEXTS` (as typed) or
+            :data:`SAMPLE_MISSING_TEXTS` (any case; each non-empty one is recorded in
+            :attr:`missing_seen` for the ledger notes).
 
         Returns
         -------
@@ -233,12 +253,31 @@ class RawTable:
                     i = int(odd[np.flatnonzero(cens)[0]])
                     raise self.error("censored value not allowed here", row=i, column=name,
                                      value=s.iloc[i], expected="a number")
-            bad = ~body.iloc[odd].isin(MISSING_TEXTS).to_numpy()
+            if missing == "samples":
+                low = body.iloc[odd].str.lower()
+                is_missing = low.isin(SAMPLE_MISSING_TEXTS).to_numpy()
+            else:
+                low = body.iloc[odd]
+                is_missing = low.isin(MISSING_TEXTS).to_numpy()
+            bad = ~is_missing
             if bad.any():
                 i = int(odd[np.flatnonzero(bad)[0]])
-                raise self.error("text in a numeric column", row=i, column=name,
-                                 value=s.iloc[i], expected="a number (or empty for missing)"
+                what = "text in a numeric column"
+                cell = str(s.iloc[i]).strip()
+                if cell.lower() in _NOT_DETECTED:
+                    what += " (a 'not detected' code? write '<limit', e.g. '<0.02')"
+                elif re.fullmatch(r"[-+<]?\d+,\d+", cell):
+                    what += " (a decimal comma? write a decimal point, e.g. '1.5')"
+                allowed = ("or empty, NA, N/A, NaN or - for missing" if missing == "samples"
+                           else "or empty for missing")
+                raise self.error(what, row=i, column=name, value=s.iloc[i],
+                                 expected=f"a number ({allowed})"
                                  + (", or '<limit' below detection" if censoring else ""))
+            if missing == "samples":
+                typed = s.iloc[odd][is_missing & (s.iloc[odd] != "").to_numpy()]
+                if len(typed):
+                    self.missing_seen[name] = {t: np.flatnonzero(s.to_numpy() == t)
+                                               for t in pd.unique(typed)}
         inf = np.isinf(v)
         if inf.any():
             i = int(np.flatnonzero(inf)[0])
@@ -259,6 +298,7 @@ class RawTable:
             raise self.error("missing timestamp", row=i, column=name, value="",
                              expected="an ISO 8601 timestamp such as 2020-01-09T14:00")
         aware = s.str.contains(_OFFSET).to_numpy()
+        self.zoned[name] = aware
         out = np.empty(len(s), dtype="datetime64[ns]")
         if aware.any():
             t = pd.to_datetime(s[aware], format="ISO8601", utc=True, errors="coerce")
@@ -285,9 +325,29 @@ class RawTable:
             hint = ""
             if re.fullmatch(r"\d{5}(\.\d*)?", str(s.loc[idx])):
                 hint = " (an Excel date serial number? format the column as a date first)"
+            elif re.search(r"[T ]24:00", str(s.loc[idx])):
+                hint = " (24:00? write 00:00 of the next day)"
+            elif re.match(r"\d{1,2}[./]\d{1,2}[./]\d{2,4}", str(s.loc[idx])):
+                hint = (" (a date in day/month or month/day order? write year-month-day, "
+                        "e.g. 2020-01-09T14:00)")
             raise self.error("not an ISO 8601 timestamp" + hint, row=int(idx), column=name,
                              value=s.loc[idx], expected="a timestamp such as 2020-01-09T14:00 "
                              "or 2020-01-09T14:00+01:00")
+
+    def missing_note(self) -> str:
+        """The ledger note counting the texts read as missing ("" when there were none),
+        e.g. ``p.csv: read as missing: SO4 [mg/L] 'NA' x2 (lines 4, 9)``."""
+        parts = []
+        for name in (c for c in self.frame.columns if c in self.missing_seen):
+            seen = self.missing_seen[name]
+            for text, rows in seen.items():
+                lines = ", ".join(str(int(x)) for x in self.lines[rows[:5]])
+                more = f" and {len(rows) - 5} more" if len(rows) > 5 else ""
+                parts.append(f"{self.raw_headers.get(name, name)} {text!r} x{len(rows)} "
+                             f"(line{'s' * (len(rows) > 1)} {lines}{more})")
+        if not parts:
+            return ""
+        return f"{self.path.name}: cells read as missing (as empty cells): " + "; ".join(parts)
 
     def unknown_columns(self, known) -> list[str]:
         return [self.raw_headers[n] for n in self.headers if n not in known]

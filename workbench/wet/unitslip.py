@@ -1,0 +1,216 @@
+"""A hint when most samples of a site fail one check together: a unit slip in a column?
+
+A column written in another unit than its header says (sulfate in ueq/L under a
+``[mg/L]`` header, gauge depth in cm under ``[mm]``) makes most samples of the site fail
+the ion balance or the capture check, all in the same direction.  Each sample is then
+flagged with its reason, but nothing names the likely cause.  :func:`unit_slip_notes`
+looks for it: when more than :data:`SHARE` of a site's evaluated samples fail one check
+in the same direction and reading one column in another unit of the same kind
+(``mg/L``, ``umol/L``, ``ueq/L``; ``mm``, ``cm``) brings more than :data:`SHARE` of the
+failing samples back into the check's band, one note per site and column names the
+slip.  The values are not changed: the note is a hint for the analyst.
+
+The checks are those of :func:`workbench.wet.screen` with its options (ion balance
+tiers, detection-limit treatment, bicarbonate; capture ranges of unknown precipitation
+type, as the reader does not know the type), run on the samples as read.
+"""
+from __future__ import annotations
+
+import re
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from .. import flags as _flags
+from ..units import convert_plain, to_amount
+from . import qa
+from .carbonate import bicarbonate
+from .options import WetOptions
+
+#: Share of a site's evaluated samples that must fail in one direction, and share of
+#: those that the other unit must bring back into the band (more than half; common
+#: practice for "most samples").
+SHARE = 0.5
+#: Units of a concentration column that are tried in place of the header's.
+CONCENTRATION_UNITS = ("mg/L", "umol/L", "ueq/L")
+#: Units of a depth column that are tried in place of the header's.
+DEPTH_UNITS = ("mm", "cm")
+
+
+def _factor(unit: str, other: str, species: str | None, basis=None) -> float:
+    """Amount read under `other` divided by the amount read under `unit` (same number)."""
+    if species is None:
+        return float(convert_plain(np.array([1.0]), other, "mm")[0]
+                     / convert_plain(np.array([1.0]), unit, "mm")[0])
+    return float(to_amount(np.array([1.0]), other, species, basis)[0][0]
+                 / to_amount(np.array([1.0]), unit, species, basis)[0][0])
+
+
+def _same_unit(a: float) -> bool:
+    return abs(a - 1.0) < 1e-6
+
+
+def _flag_ok(samples: xr.Dataset, which: int) -> np.ndarray:
+    """Samples whose flag words leave the chemistry (`which` 1) or the gauge depth
+    (`which` 2) valid; a loop over the few flag codes, not over samples."""
+    n = samples.sizes["sample"]
+    flags = pd.Series(samples["flags"].values.astype(str) if "flags" in samples else [""] * n)
+    bad = np.zeros(n, bool)
+    for code, meaning in _flags.FLAGS.items():
+        if not meaning[which]:
+            bad |= flags.str.contains(rf"(?:^|\s){re.escape(code)}(?:\s|$)").to_numpy()
+    return ~bad
+
+
+def _gauge_ok(samples: xr.Dataset) -> np.ndarray:
+    return _flag_ok(samples, 2)
+
+
+def _ion_balance(samples, options):
+    """Equivalents per ion [ueq/L], cation and anion sums [ueq/L] as the screening has
+    them (censored values by the detection-limit treatment; every sample, flagged or
+    not, as :func:`workbench.wet.screen` evaluates them)."""
+    n = samples.sizes["sample"]
+    pH = samples["pH"].values.astype(float) if "pH" in samples else np.full(n, np.nan)
+    hyd = qa.hydrogen_from_pH(pH)
+    eqs = {"H": qa.ueq_per_litre(hyd, "H")}
+    for ion in qa.BALANCE_CATIONS + qa.BALANCE_ANIONS:
+        if ion in samples and ion not in ("H", "HCO3"):
+            v = samples[ion].values.astype(float)
+            cens = samples[f"{ion}_censored"].values.astype(bool)
+            lim = samples[f"{ion}_detection_limit"].values.astype(float)
+            eqs[ion] = qa.ueq_per_litre(qa.censored_value(v, cens, lim, options.detection_limit),
+                                        ion)
+    hco3 = (bicarbonate(hyd, options.co2_mixing_ratio, options.lab_temperature)
+            if options.bicarbonate else np.zeros(n))
+    eqs["HCO3"] = qa.ueq_per_litre(hco3, "HCO3")
+    cations, anions = qa.ion_sums(eqs)
+    return eqs, cations, anions
+
+
+def _ib_fail(cations, anions, options):
+    idiff = qa.ion_difference(cations, anions)
+    limit = qa.tier_limit(cations + anions, options.ion_balance_tiers)
+    return np.isfinite(idiff), np.isfinite(idiff) & (np.abs(idiff) > limit), idiff
+
+
+def _suspects(sites, evaluated, *directions) -> list:
+    """The sites where more than :data:`SHARE` of the evaluated samples fail in one of
+    the `directions` (bool arrays); counted in one group-by, so the search for a unit
+    runs only at those few sites."""
+    cols = {f"d{i}": np.asarray(d, bool) for i, d in enumerate(directions)}
+    g = pd.DataFrame({"site": sites, "n": np.asarray(evaluated, bool), **cols}).groupby(
+        "site", sort=True).sum()
+    n = g["n"].to_numpy()
+    hit = (g[list(cols)].to_numpy() > SHARE * n[:, None]).any(axis=1) & (n > 0)
+    return list(g.index[hit])
+
+
+def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
+                    options: WetOptions = WetOptions()) -> list[str]:
+    """Notes naming a likely unit slip, one per site and column.
+
+    Parameters
+    ----------
+    samples : xarray.Dataset
+        Precipitation samples as read (:func:`workbench.io.samples.read_precipitation`):
+        ions [mol m-3] with ``<ion>_censored`` and ``<ion>_detection_limit``, ``pH``,
+        ``gauge_depth`` and ``sample_depth`` [mm], ``flags``, ``site``.
+    units : dict
+        Column key -> (header as typed, unit as typed, element basis or None); keys are
+        the ions and ``"gauge_depth"`` / ``"sample_depth"`` when given in the file.
+    file_name : str
+        Named in the notes.
+    options : WetOptions
+        The screening's options (tiers, detection-limit treatment, capture range).
+
+    Returns
+    -------
+    list of str
+        E.g. ``"p.csv: SO4 at ridge: 39 of 56 samples fail the ion balance, 39 of them
+        with anions high; the values look like ueq/L under a mg/L header (read so, 38
+        of the 39 pass)"``.
+    """
+    n = samples.sizes["sample"]
+    if n == 0:
+        return []
+    sites = samples["site"].values.astype(str)
+    notes = []
+    eqs, cations, anions = _ion_balance(samples, options)
+    evaluated, fail, idiff = _ib_fail(cations, anions, options)
+    # ion balance: one candidate (ion, unit) per site, the one that mends the most samples
+    for site in _suspects(sites, evaluated, fail & (idiff < 0), fail & (idiff > 0)):
+        at = sites == site
+        n_eval = int((evaluated & at).sum())
+        for sign, side in ((-1, "anions high"), (1, "cations high")):
+            failing = fail & at & (np.sign(idiff) == sign)
+            k = int(failing.sum())
+            if n_eval == 0 or k <= SHARE * n_eval:
+                continue
+            k_all = int((fail & at).sum())
+            best = None
+            for ion, (header, unit, basis) in units.items():
+                if ion not in eqs or ion == "H":
+                    continue
+                for other in CONCENTRATION_UNITS:
+                    f = _factor(unit, other, ion, basis)
+                    if _same_unit(f):
+                        continue
+                    idx = np.flatnonzero(failing)        # only the failing samples
+                    extra = (f - 1.0) * np.nan_to_num(eqs[ion][idx])
+                    c2, a2 = ((cations[idx] + extra, anions[idx]) if ion in qa.BALANCE_CATIONS
+                              else (cations[idx], anions[idx] + extra))
+                    _, fail2, _ = _ib_fail(c2, a2, options)
+                    mended = int((~fail2).sum())
+                    if mended > SHARE * k and (best is None or mended > best[0]):
+                        best = (mended, ion, header, unit, other)
+            if best is not None:
+                mended, ion, header, unit, other = best
+                share = "all" if k_all == k else str(k)
+                notes.append(f"{file_name}: {ion} at {site}: {k_all} of {n_eval} samples fail the "
+                             f"ion balance, {share} with {side}; the values look like {other} "
+                             f"under a {unit} header ({header!r}; read as {other}, {mended} of "
+                             f"the {k} pass)")
+    # capture ratio: the gauge or the sample depth in another length unit
+    if "gauge_depth" in samples and "sample_depth" in samples:
+        gauge = np.where(_gauge_ok(samples), samples["gauge_depth"].values.astype(float), np.nan)
+        sample = samples["sample_depth"].values.astype(float)
+        lo, hi = options.capture_unknown
+        ratio = qa.capture_ratio(sample, gauge, options.capture_min_depth)
+        ok = np.isfinite(ratio)
+        for site in _suspects(sites, ok, ratio > hi, ratio < lo):
+            at = sites == site
+            n_eval = int((ok & at).sum())
+            for failing, side in (((ratio > hi) & at, "high"), ((ratio < lo) & at, "low")):
+                k = int(failing.sum())
+                if n_eval == 0 or k <= SHARE * n_eval:
+                    continue
+                k_all = int((at & ((ratio > hi) | (ratio < lo))).sum())
+                best = None
+                for col in ("gauge_depth", "sample_depth"):
+                    if col not in units:
+                        continue
+                    header, unit, _ = units[col]
+                    for other in DEPTH_UNITS:
+                        f = _factor(unit, other, None)
+                        if _same_unit(f):
+                            continue
+                        idx = np.flatnonzero(failing)    # only the failing samples
+                        g, v = gauge[idx], sample[idx]
+                        if col == "gauge_depth":
+                            r2 = qa.capture_ratio(v, g * f, options.capture_min_depth)
+                        else:
+                            r2 = qa.capture_ratio(v * f, g, options.capture_min_depth)
+                        mended = int(((r2 >= lo) & (r2 <= hi)).sum())
+                        if mended > SHARE * k and (best is None or mended > best[0]):
+                            best = (mended, col, header, unit, other)
+                if best is not None:
+                    mended, col, header, unit, other = best
+                    notes.append(f"{file_name}: {col.replace('_', ' ')} at {site}: {k_all} of "
+                                 f"{n_eval} samples fail the capture check, "
+                                 f"{'all' if k_all == k else k} with the "
+                                 f"capture ratio {side}; the values look like {other} under a "
+                                 f"{unit} header ({header!r}; read as {other}, {mended} of the "
+                                 f"{k} pass)")
+    return notes
