@@ -11,11 +11,13 @@ import json
 from pathlib import Path
 
 import numpy as np
+import pandas as pd
 import xarray as xr
 
 from . import __version__
 from .csvwrite import write_csv
 from .io.common import release_free_memory
+from .io.ledger import STATUSES
 from .runfolder import (OutputError, RunFolder, atomic_write, check_out_dir,  # noqa: F401
                         os_error_message)
 from .tables import BUDGET_COLUMNS, summary_table
@@ -178,6 +180,32 @@ def write_report_html(result, study, scenario, path):
     return path
 
 
+def write_input_rows(result, study, scenario, path):
+    """input_rows.csv: every row of every input file counted by status and reason.
+
+    Columns ``file, status, reason, rows``. For each file and status one line with an
+    empty reason holds the number of rows in that status; the lines below it count each
+    single reason (a row with two reasons is counted under both, so the reason lines of
+    a status can add up to more than its total). Read = accepted + flagged + rejected
+    holds per file (:meth:`workbench.io.ledger.Ledger.check_balanced`).
+    """
+    led = study.inputs.ledger
+    if not led.rows():
+        return None
+    totals = led.summary().melt(id_vars=["file"], value_vars=list(STATUSES),
+                                var_name="status", value_name="rows")
+    totals = totals[totals["rows"] > 0].assign(reason="")
+    table = pd.concat([totals[["file", "status", "reason", "rows"]], led.reasons()],
+                      ignore_index=True)
+    order = {s: i for i, s in enumerate(STATUSES)}
+    table = (table.assign(_s=table["status"].map(order), _r=table["reason"] != "")
+             .sort_values(["file", "_s", "_r", "reason"], kind="stable")
+             .drop(columns=["_s", "_r"]))
+    table["rows"] = table["rows"].astype(int)
+    _csv(table, path)
+    return path
+
+
 def write_analysis_tables(result, study, scenario, path):
     """exceedance.csv, trends.csv and the handover tables beside `path`; returns their
     names (:func:`workbench.analysis.outputs.write_analysis`)."""
@@ -197,6 +225,7 @@ OUTPUT_STEPS = [
     ("samples.csv", write_samples_csv),
     ("velocities.nc", write_velocities_nc),
     ("report.html", write_report_html),
+    ("input_rows.csv", write_input_rows),
     ("analysis tables", write_analysis_tables),
 ]
 
@@ -231,6 +260,8 @@ def write_files(result, study, scenario, folder: Path, progress=None, started=No
             if writer is None:
                 prov = provenance(scenario, input_paths(study, scenario), started)
                 prov["outputs"] = names + ["provenance.json"]
+                prov["input_notes"] = list(study.inputs.ledger.notes)
+                prov["run_notes"] = [str(n) for n in getattr(result, "notes", [])]
                 path.write_text(json.dumps(prov, indent=2, default=str))
                 got = path
             else:
