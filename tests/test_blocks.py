@@ -369,15 +369,18 @@ def test_screened_samples_stacked_as_xarray_concat(setup):
 def test_local_cluster_workers_keep_the_adaptive_malloc_threshold(monkeypatch):
     """The workers of `start_client` start without distributed's MALLOC_TRIM_THRESHOLD_
     (it turned off glibc's adaptive mmap threshold: 30-45 % more CPU per block), and the
-    other pre-spawn variables of distributed's configuration stay as they are."""
+    other pre-spawn variables of distributed's configuration stay as they are; they
+    import WORKER_PRELOAD as they start, before any task."""
     pytest.importorskip("distributed")
     import os
-    from workbench.blocks import UNSET_WORKER_ENVIRON, start_client
+    from workbench.blocks import UNSET_WORKER_ENVIRON, WORKER_PRELOAD, start_client
     for name in UNSET_WORKER_ENVIRON:       # as in a fresh process (no earlier cluster)
         monkeypatch.delenv(name, raising=False)
     client = start_client(workers=1)
     try:
         env = list(client.run(lambda: dict(os.environ)).values())[0]
+        preloaded = list(client.run(lambda: [m in sys.modules for m in WORKER_PRELOAD])
+                         .values())[0]
     finally:
         cluster = client.cluster
         client.close()
@@ -385,3 +388,4 @@ def test_local_cluster_workers_keep_the_adaptive_malloc_threshold(monkeypatch):
     assert all(name not in env for name in UNSET_WORKER_ENVIRON)
     assert env.get("OMP_NUM_THREADS") == "1"           # distributed's other defaults kept
     assert all(name not in os.environ for name in UNSET_WORKER_ENVIRON)   # nor set here
+    assert preloaded == [True] * len(WORKER_PRELOAD)  # imported before any task

@@ -40,8 +40,8 @@ from .blockreduce import reduce_blocks
 from .io.common import release_free_memory
 from .pipeline import Result, Study
 
-__all__ = ["run_blocks", "run_network", "site_blocks", "start_client", "wanted_blocks",
-           "wants_blocks"]
+__all__ = ["ClusterStart", "close_client", "run_blocks", "run_network", "site_blocks",
+           "start_client", "wanted_blocks", "wants_blocks"]
 
 
 def site_blocks(sites, block_sites=None) -> list:
@@ -175,10 +175,21 @@ def _loaded(inputs):
 UNSET_WORKER_ENVIRON = ("MALLOC_TRIM_THRESHOLD_",)
 
 
+#: Modules the worker processes of a local cluster of :func:`start_client` import as
+#: they start (distributed's worker ``preload``), before they take a task: the package
+#: and the modules a block imports when it first runs.  Started by
+#: :class:`ClusterStart`, these imports overlap the main process's reading of the
+#: inputs instead of delaying each worker's first block (2.4-3.5 s on a loaded
+#: machine, docs/performance.md).
+WORKER_PRELOAD = ("workbench.blocks", "workbench.comparison", "workbench.drydep.codeposition",
+                  "workbench.drydep.wesely1989")
+
+
 def start_client(workers=None, scheduler=None):
     """A ``dask.distributed`` client: on `scheduler` (an address) or on a local cluster
     of `workers` single-threaded processes (without the variables of
-    :data:`UNSET_WORKER_ENVIRON`).  The caller closes it (and its cluster)."""
+    :data:`UNSET_WORKER_ENVIRON`; each imports :data:`WORKER_PRELOAD` as it starts).
+    The caller closes it (:func:`close_client`)."""
     from .optional import require
     distributed = require("distributed")
     if scheduler:
@@ -188,8 +199,67 @@ def start_client(workers=None, scheduler=None):
              for name in UNSET_WORKER_ENVIRON}
     with dask.config.set(unset):      # None: not set (read when the nannies are made)
         cluster = distributed.LocalCluster(n_workers=int(workers), threads_per_worker=1,
-                                           dashboard_address=None)
+                                           dashboard_address=None,
+                                           preload=list(WORKER_PRELOAD))
     return distributed.Client(cluster)
+
+
+def close_client(client):
+    """Close `client` and, for a local cluster started here, the cluster."""
+    cluster = getattr(client, "cluster", None)
+    client.close()
+    if cluster is not None:
+        cluster.close()
+
+
+class ClusterStart:
+    """A local cluster of :func:`start_client` starting on a thread of its own.
+
+    ``workbench run --workers N`` starts it before reading the inputs, so the start of
+    the scheduler and the workers (with their imports, :data:`WORKER_PRELOAD`) overlaps
+    the reading, which is serial in the main process.  Whoever starts it closes it
+    (:meth:`close`, also after an error: it waits for the start to end, then shuts the
+    cluster down, so no worker process outlives the command).
+
+    Parameters
+    ----------
+    workers : int
+        Worker processes [-].
+    """
+
+    def __init__(self, workers):
+        import threading
+        from .optional import require
+        require("distributed")       # imported here: a missing extra is named at once
+        self.workers = int(workers)
+        self._client = self._error = None
+        self._closed = False
+        self._thread = threading.Thread(target=self._start, name="workbench-cluster-start",
+                                        daemon=True)
+        self._thread.start()
+
+    def _start(self):
+        try:
+            self._client = start_client(self.workers)
+        except BaseException as exc:          # raised by result(), in the caller's thread
+            self._error = exc
+
+    def result(self):
+        """The client, once the cluster is up (its start's error is raised here)."""
+        self._thread.join()
+        if self._closed:
+            raise RuntimeError("the local cluster was closed")
+        if self._error is not None:
+            raise self._error
+        return self._client
+
+    def close(self):
+        """Wait for the start to end, then close the client and the cluster (again: no-op)."""
+        self._thread.join()
+        self._closed = True
+        client, self._client = self._client, None
+        if client is not None:
+            close_client(client)
 
 
 def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_options=None,
@@ -382,21 +452,27 @@ def wants_blocks(n_sites, workers=None, scheduler=None, block_sites=None, draws=
 
 def run_network(study, wet_options, dry_options, budget_options, fixed_velocity, resolution,
                 start, end, *, sc=None, workers=None, scheduler=None, block_sites=None,
-                progress=None) -> Result:
+                progress=None, cluster=None) -> Result:
     """What ``workbench run --workers/--scheduler/--block-sites`` computes.
 
     Starts (and closes) a local cluster of `workers` processes, or connects to
-    `scheduler`; without either the blocks run in this process.  The default block size
-    with a cluster is the sites shared out as two blocks per worker, at most
-    :data:`DEFAULT_MAX_BLOCK` sites; in this process :data:`DEFAULT_MAX_BLOCK`.
+    `scheduler`; without either the blocks run in this process.  A local cluster
+    already starting (`cluster`, a :class:`ClusterStart`) is used and closed instead.
+    The default block size with a cluster is the sites shared out as two blocks per
+    worker, at most :data:`DEFAULT_MAX_BLOCK` sites; in this process
+    :data:`DEFAULT_MAX_BLOCK`.
     """
     from .errors import WorkbenchError
-    unc = sc.options.get("uncertainty") if sc is not None else None
-    if unc is not None and getattr(unc, "draws", 0):
-        raise WorkbenchError("[uncertainty] draws > 0 needs the whole run's cached stages: "
-                             "run without --workers, --scheduler and --block-sites")
-    client = start_client(workers, scheduler) if (workers or scheduler) else None
     try:
+        unc = sc.options.get("uncertainty") if sc is not None else None
+        if unc is not None and getattr(unc, "draws", 0):
+            raise WorkbenchError("[uncertainty] draws > 0 needs the whole run's cached stages: "
+                                 "run without --workers, --scheduler and --block-sites")
+        if cluster is not None:
+            client = cluster.result()
+        else:
+            client = start_client(workers, scheduler) if (workers or scheduler) else None
+            cluster = client
         if block_sites is None and client is not None:
             n_workers = max(1, len(client.scheduler_info().get("workers", {})) or (workers or 1))
             n_sites = len(study.inputs.catalogue.ids)
@@ -407,10 +483,9 @@ def run_network(study, wet_options, dry_options, budget_options, fixed_velocity,
                             resolution, start, end, block_sites=block_sites, client=client,
                             progress=progress)
     finally:
-        if client is not None:
-            cluster = client.cluster if not scheduler else None
-            client.close()
-            if cluster is not None:
-                cluster.close()
+        if isinstance(cluster, ClusterStart):
+            cluster.close()
+        elif cluster is not None:
+            close_client(cluster)
     result.notes = list(result.notes) + [NO_VELOCITIES_NOTE]
     return result

@@ -36,6 +36,40 @@ DEMO_SCENARIO = demo_folder() / "scenario.toml"
 RESOLUTIONS = ("year", "hydro_year", "season", "month")
 
 
+class _LineEnd:
+    """A text stream written through, knowing whether its last line is still open (text
+    written since the last newline).
+
+    ``main`` puts it in place of ``sys.stderr`` for a command, so that an error always
+    starts on a line of its own, in a terminal and piped: a progress bar shown by a
+    refresh before its ``delay`` has passed (tqdm) closes without its newline.
+    """
+
+    def __init__(self, stream):
+        self.stream = stream
+        self.open = False
+
+    def write(self, text):
+        if text:
+            self.open = not text.endswith("\n")
+        return self.stream.write(text)
+
+    def end_line(self):
+        """Write a newline if the last line is open."""
+        if self.open:
+            self.stream.write("\n")
+            self.open = False
+
+    def __getattr__(self, name):          # flush, fileno, isatty, encoding, ...
+        return getattr(self.stream, name)
+
+
+def _end_line():
+    """End an open line on stderr (see :class:`_LineEnd`)."""
+    if isinstance(sys.stderr, _LineEnd):
+        sys.stderr.end_line()
+
+
 def _progress(quiet):
     if quiet:
         return None
@@ -76,6 +110,9 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
     sc = load_scenario(scenario_path)
     say = (lambda text: None) if quiet else (lambda text: print(text, file=sys.stderr))
     with RunFolder(out, {"scenario": sc.path, **sc.input_paths()}, overwrite, say=say) as folder:
+        # a local cluster starts (and its workers import the package) while the inputs
+        # are read; closed after the blocks, or after an error here
+        cluster = _early_cluster(sc, workers, scheduler)
         steps = ["sites", "precipitation", "air", "met", "budget", "outputs"]
         bar = tqdm(total=len(steps), desc="workbench", disable=quiet, delay=1.0,
                    file=sys.stderr)
@@ -96,7 +133,8 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
                             getattr(unc, "draws", 0) if unc is not None else 0):
                 from .blocks import run_network
                 result = run_network(*args, sc=sc, workers=workers, scheduler=scheduler,
-                                     block_sites=block_sites, progress=bar.set_postfix_str)
+                                     block_sites=block_sites, progress=bar.set_postfix_str,
+                                     cluster=cluster)
             else:
                 from .comparison import run as run_compared
                 result = run_compared(*args)
@@ -106,7 +144,23 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
             bar.update(bar.total - bar.n)
         finally:
             bar.close()
+            _end_line()
+            if cluster is not None:
+                cluster.close()
     return written, result, study
+
+
+def _early_cluster(sc, workers, scheduler):
+    """A :class:`workbench.blocks.ClusterStart` of `workers` processes for ``workbench
+    run --workers`` (None with ``--scheduler``, which connects when the blocks start,
+    and when the scenario's ``[uncertainty]`` draws refuse block mode)."""
+    if not workers or scheduler:
+        return None
+    unc = sc.options.get("uncertainty")
+    if unc is not None and getattr(unc, "draws", 0):
+        return None
+    from .blocks import ClusterStart
+    return ClusterStart(workers)
 
 
 def cmd_run(args) -> int:
@@ -245,20 +299,31 @@ def build_parser() -> argparse.ArgumentParser:
 def main(argv=None) -> int:
     """Run the command line; returns the exit code (0 success, 2 error, 130 Ctrl-C)."""
     args = build_parser().parse_args(argv)
+    stderr = sys.stderr
+    sys.stderr = _LineEnd(stderr)        # an error starts on a line of its own
     try:
         return args.func(args)
     except WorkbenchError as exc:
-        print(f"error: {exc}", file=sys.stderr)
+        _error(f"{exc}")
         return 2
     except OSError as exc:  # reading or writing outside the run folder's own messages
         from .runfolder import os_error_message
-        print(f"error: {os_error_message(exc, what='read or write')}", file=sys.stderr)
+        _error(os_error_message(exc, what="read or write"))
         return 2
     except KeyboardInterrupt:
         where = getattr(args, "out", None)
-        print("error: interrupted" + (f"; nothing was written into {Path(where).resolve()}"
-                                      if where else ""), file=sys.stderr)
+        _error("interrupted" + (f"; nothing was written into {Path(where).resolve()}"
+                                if where else ""))
         return 130
+    finally:
+        _end_line()
+        sys.stderr = stderr
+
+
+def _error(text):
+    """Print ``error: text`` on stderr, on a line of its own."""
+    _end_line()
+    print(f"error: {text}", file=sys.stderr)
 
 
 if __name__ == "__main__":  # pragma: no cover

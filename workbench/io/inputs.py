@@ -67,13 +67,10 @@ class Inputs:
 
         met = self.met
         if met is not None:
+            # the hours first (a slice: a view here, and a met store reads only those
+            # columns without sorting an index of every hour), then the sites (a copy)
+            met = met.isel(time=_hours(met["time"].values, t0, t1))
             met = met.sel(site=[s for s in keep if s in met["site"].values])
-            tsel = np.ones(met.sizes["time"], bool)
-            if t0 is not None:
-                tsel &= met["time"].values > t0
-            if t1 is not None:
-                tsel &= met["time"].values <= t1
-            met = met.isel(time=np.flatnonzero(tsel))
         return _dc.replace(self, catalogue=cat, precipitation=cut(self.precipitation, "sample"),
                            air=cut(self.air, "period"), met=met)
 
@@ -114,6 +111,40 @@ class Inputs:
             out.append("notes:")
             out.extend(f"  {n}" for n in self.ledger.notes)
         return "\n".join(out)
+
+
+def _hours(time, t0=None, t1=None):
+    """The hours of a met time axis in (t0, t1]: a slice when they are consecutive
+    (always, for a sorted axis), else their positions.
+
+    Parameters
+    ----------
+    time : numpy.ndarray of datetime64[ns]
+        End of each hour (UTC).
+    t0, t1 : numpy.datetime64, optional
+        Start and end of the span (None: open).
+
+    Returns
+    -------
+    slice or numpy.ndarray of int
+
+    >>> t = np.arange(4).astype("datetime64[h]").astype("datetime64[ns]")
+    >>> _hours(t, t[0], t[2]), _hours(t)
+    (slice(1, 3, None), slice(None, None, None))
+    """
+    if t0 is None and t1 is None:
+        return slice(None)
+    tsel = np.ones(len(time), bool)
+    if t0 is not None:
+        tsel &= time > t0
+    if t1 is not None:
+        tsel &= time <= t1
+    idx = np.flatnonzero(tsel)
+    if not len(idx):
+        return slice(0, 0)
+    if idx[-1] - idx[0] + 1 == len(idx):
+        return slice(int(idx[0]), int(idx[-1]) + 1)
+    return idx
 
 
 def load_inputs(sites, precipitation=None, air=None, met=None, reference_state=None,
