@@ -53,7 +53,7 @@ from .ledger import CodedRows, Ledger
 from .linechunks import Source, gunzip, line_cells, plain
 from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
-from .table import _OFFSET, MISSING_TEXTS, YEARS
+from .table import _OFFSET, SAMPLE_MISSING_TEXTS, YEARS, RawTable
 
 #: Bytes of text parsed at a time (by each thread; see :func:`workbench.threads.map_ordered`).
 CHUNK_BYTES = 8 << 20
@@ -161,16 +161,20 @@ class _TimeTexts:
             return where, self.value, self.aware
 
     def rows(self, cats, codes, off_ns, site_idx):
-        """End-of-row times [ns] (UTC) of a chunk; None when a text is no valid time."""
+        """End-of-row times [ns] (UTC) of a chunk and the rows whose text carries a zone
+        (None: none does); None when a text is no valid time."""
         got = self._lookup(pd.Index(np.asarray(cats, dtype=object)))
         if got is None:
             return None
         where, value, aware = got
         k = where[codes]
         t = value[k]
-        naive = ~aware[k]
+        zoned = aware[k]
+        if not zoned.any():
+            return t - off_ns[site_idx], None
+        naive = ~zoned
         t[naive] = t[naive] - off_ns[site_idx[naive]]
-        return t
+        return t, zoned
 
 
 def read_met_csv_fast(path, catalogue, chunk_bytes=CHUNK_BYTES):
@@ -258,15 +262,21 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
         if not ok:
             return None
         got = None
-        if not firsts:
+        zones = None
+        if not any(k[0] in ("site", "time") for k in firsts):   # else raised before
+            zones = rows.zones.first_break()
+            zones = None if zones is None else (zones[0] + n_meta + 2, zones[1] + n_meta + 2)
+        if not firsts and zones is None:
             got = _checked(rows, n_meta + 2, path, catalogue, ids, units, raw_headers,
                            variables, hour)
             if got is not _REPEAT:
                 return got
         before = any(k[0] in ("site", "time", "hour") for k in firsts)   # checked first
+        before = before or zones is not None
         repeat = None if before else metlocate.first_repeat(rows, n_meta + 2, CHECK_ROWS)
         metlocate.raise_first(path, meta, heads, raw_headers, firsts, catalogue, label, hour,
-                              repeat, lambda line: line_cells(path, names, line, CHUNK_BYTES))
+                              repeat, lambda line: line_cells(path, names, line, CHUNK_BYTES),
+                              zones)
         return None                    # nothing raised: the line reader judges the file
 
 
@@ -287,6 +297,31 @@ class _Spill:
         self.grouped = True
         self.last = -1
         self.t_min = self.t_max = None
+        self.zones = metlocate.ZoneTally(n_sites)
+        #: column -> {missing-value text: [count, first (at most 5) rows of the file]}
+        self.missing = {}
+
+    def count_missing(self, found, row0):
+        """Count the missing-value texts of a chunk starting at file row `row0`."""
+        for name, texts in found.items():
+            for text, at in texts.items():
+                e = self.missing.setdefault(name, {}).setdefault(text, [0, []])
+                e[0] += len(at)
+                e[1].extend((row0 + at[:max(5 - len(e[1]), 0)]).tolist())
+
+    def missing_note(self, path, raw_headers, first_line):
+        """The line reader's note on the texts read as missing (RawTable.missing_note),
+        "" when there were none."""
+        cols = [c for c in raw_headers if c in self.missing]
+        lines, seen = [], {}
+        for c in cols:
+            seen[c] = {}
+            for text, (count, first) in self.missing[c].items():
+                seen[c][text] = _Counted(np.arange(len(lines), len(lines) + len(first)), count)
+                lines += [first_line + r for r in first]
+        tab = RawTable(Path(path), {}, pd.DataFrame(columns=cols), np.array(lines, np.int64),
+                       {}, raw_headers, seen)
+        return tab.missing_note()
 
     def add(self, site, t, values, capacity):
         if self.site is None:
@@ -354,6 +389,20 @@ class _Spill:
             i = j
 
 
+class _Counted:
+    """The rows of one missing-value text as :meth:`RawTable.missing_note` reads them
+    (their number and the first ones), without an index per row."""
+
+    def __init__(self, first, count):
+        self.first_rows, self.count = first, count
+
+    def __len__(self):
+        return self.count
+
+    def __getitem__(self, k):
+        return self.first_rows[k]
+
+
 class _ChunkParser:
     """Parse one chunk of whole data lines (called on several threads at once): the
     rows' site codes, end-of-hour times [ns] (UTC) and converted values, or None for a
@@ -379,15 +428,16 @@ class _ChunkParser:
                 or np.count_nonzero(text == 44) != n * (len(self.names) - 1)):
             return None
         del text, ends
+        found = None     # texts read as missing: column -> {text: rows of the chunk}
         try:             # low_memory=False: one pass over the chunk, no pieces to join
-            df = pd.read_csv(io.BytesIO(chunk), header=None, names=self.names,
-                             usecols=self.used, dtype=self.dtype,
-                             na_values=list(MISSING_TEXTS), keep_default_na=False,
-                             skip_blank_lines=False, low_memory=False)
+            df = self._frame(chunk, [""])
         except pd.errors.ParserError:
             return None
         except (ValueError, IndexError, TypeError):
-            return self._locate(chunk)         # a cell that is no number: located
+            got = self._missing_texts(chunk)    # NA, N/A, - ... or a cell that is no number
+            if got is None:
+                return self._locate(chunk)
+            df, found = got
         if len(df) != n:
             return None
         sc = df["site"].cat
@@ -400,9 +450,10 @@ class _ChunkParser:
         tcodes = tc.codes.to_numpy()
         if (tcodes < 0).any():
             return self._locate(chunk)
-        t = self.times.rows(tc.categories, tcodes, self.off_ns, site_idx)
-        if t is None:
+        got = self.times.rows(tc.categories, tcodes, self.off_ns, site_idx)
+        if got is None:
             return self._locate(chunk)
+        t, zoned = got
         if self.label == "start":
             t = t + self.hour
         if (t != t.astype("datetime64[h]").astype("datetime64[ns]")).any():
@@ -420,7 +471,39 @@ class _ChunkParser:
             got[name] = self.convert(v, self.units[name], name, self.variables[name][0])
         if words and _WORDS.search(chunk):
             return self._locate(chunk)
-        return site_idx, t, got, n, len(chunk)
+        return site_idx, t, got, n, len(chunk), zoned, found
+
+    def _frame(self, chunk, na):
+        return pd.read_csv(io.BytesIO(chunk), header=None, names=self.names,
+                           usecols=self.used, dtype=self.dtype,
+                           na_values={c: na for c in self.used[2:]}, keep_default_na=False,
+                           skip_blank_lines=False, low_memory=False)
+
+    def _missing_texts(self, chunk):
+        """(frame, texts) of a chunk whose only non-numbers are missing-value texts
+        (:data:`~workbench.io.table.SAMPLE_MISSING_TEXTS`, any case): the values parsed
+        as in a clean chunk with those texts as missing, and for each column the texts as
+        typed -> their rows (in order of first appearance); None for any other chunk."""
+        try:
+            cells = pd.read_csv(io.BytesIO(chunk), header=None, names=self.names,
+                                usecols=self.used[2:], dtype=str, keep_default_na=False,
+                                na_filter=False, low_memory=False)
+        except (ValueError, IndexError, TypeError, pd.errors.ParserError):
+            return None
+        found, texts = {}, set()
+        for name in self.used[2:]:
+            s = cells[name]
+            m = (s != "").to_numpy() & s.str.lower().isin(SAMPLE_MISSING_TEXTS).to_numpy()
+            if m.any():
+                at, typed = np.flatnonzero(m), s.to_numpy()[m]
+                found[name] = {t: at[typed == t] for t in pd.unique(typed)}
+                texts.update(found[name])
+        if not found:
+            return None
+        try:
+            return self._frame(chunk, [""] + sorted(texts)), found
+        except (ValueError, IndexError, TypeError, pd.errors.ParserError):
+            return None                  # another text beside them: located
 
     def _locate(self, chunk):
         """The first row of each kind of failure (metlocate), or None."""
@@ -438,19 +521,26 @@ def _parse(source, rows, parser, chunk_bytes, size_hint, first_line):
     comes before any check over all rows), but every chunk is still parsed, since a
     later row may hold an error the line reader raises first."""
     parsed = map_ordered(parser, source.chunks(chunk_bytes))
-    firsts, keep, seen = {}, True, 0
+    firsts, keep, zones_known, seen = {}, True, True, 0
     try:
         for got in parsed:
             if got is None:
                 return False, {}
+            found = None
             if isinstance(got, metlocate.Located):
                 for kind, (i, cells) in got.firsts.items():
                     firsts.setdefault(kind, (first_line + seen + i, cells))
                 keep = keep and got.valid
-                site_idx, t, n, n_bytes = got.site_idx, got.t, got.n, got.n_bytes
+                zones_known = zones_known and not any(k[0] in ("site", "time")
+                                                      for k in got.firsts)
+                site_idx, t, n, n_bytes, zoned = got.site_idx, got.t, got.n, got.n_bytes, got.zoned
                 values = {k: np.full(n, np.nan) for k in rows.names}
             else:
-                site_idx, t, values, n, n_bytes = got
+                site_idx, t, values, n, n_bytes, zoned, found = got
+            if zones_known:          # the zone check comes before the hours: every row
+                rows.zones.add(site_idx, zoned, seen)
+            if found:
+                rows.count_missing(found, seen)
             if keep:
                 est = int(size_hint / max(n_bytes, 1) * n * 1.02) + n   # rows, from the size
                 rows.add(site_idx, t, values, est)
@@ -545,4 +635,7 @@ def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variabl
     unknown = [raw_headers[c] for c in raw_headers if c not in set(variables) | {"site", "time"}]
     if unknown:
         ledger.notes.append(f"{path.name}: columns not used: {', '.join(unknown)}")
+    note = rows.missing_note(path, raw_headers, first_line)
+    if note:
+        ledger.notes.append(note)
     return ds, ledger
