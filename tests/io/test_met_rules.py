@@ -122,14 +122,16 @@ def test_missing_value_texts_are_counted(tmp_path, cat, monkeypatch, text):
     ("nd", "text in a numeric column (a 'not detected' code? write '<limit', e.g. '<0.02')"),
     ("n.a.", "text in a numeric column"),
     ("missing", "text in a numeric column"),
+    ("N/A?", "text in a numeric column"),
 ])
 def test_other_texts_are_errors(tmp_path, cat, monkeypatch, text, problem):
     """A text that is no missing-value text: the located error of the sample readers,
     the same from both readers."""
     rows = _rows("alpha", 1, 24)
-    cells = rows[5].split(",")
-    cells[2] = text
-    rows[5] = ",".join(cells)
+    for k, value in ((3, "NA"), (5, text), (9, "-")):   # missing texts beside it
+        cells = rows[k].split(",")
+        cells[2] = value
+        rows[k] = ",".join(cells)
     p = tmp_path / "met.csv"
     p.write_text(HEAD + "".join(rows))
     msg = _error(monkeypatch, p, cat)

@@ -53,7 +53,7 @@ from .ledger import CodedRows, Ledger
 from .linechunks import Source, gunzip, line_cells, plain
 from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
-from .table import _OFFSET, SAMPLE_MISSING_TEXTS, YEARS, RawTable
+from .table import _OFFSET, YEARS
 
 #: Bytes of text parsed at a time (by each thread; see :func:`workbench.threads.map_ordered`).
 CHUNK_BYTES = 8 << 20
@@ -309,20 +309,6 @@ class _Spill:
                 e[0] += len(at)
                 e[1].extend((row0 + at[:max(5 - len(e[1]), 0)]).tolist())
 
-    def missing_note(self, path, raw_headers, first_line):
-        """The line reader's note on the texts read as missing (RawTable.missing_note),
-        "" when there were none."""
-        cols = [c for c in raw_headers if c in self.missing]
-        lines, seen = [], {}
-        for c in cols:
-            seen[c] = {}
-            for text, (count, first) in self.missing[c].items():
-                seen[c][text] = _Counted(np.arange(len(lines), len(lines) + len(first)), count)
-                lines += [first_line + r for r in first]
-        tab = RawTable(Path(path), {}, pd.DataFrame(columns=cols), np.array(lines, np.int64),
-                       {}, raw_headers, seen)
-        return tab.missing_note()
-
     def add(self, site, t, values, capacity):
         if self.site is None:
             self.site = _Rows(np.int32, capacity)
@@ -387,20 +373,6 @@ class _Spill:
                 yield np.concatenate([np.arange(self.first[s], self.first[s] + self.count[s])
                                       for s in sites[i:j]])
             i = j
-
-
-class _Counted:
-    """The rows of one missing-value text as :meth:`RawTable.missing_note` reads them
-    (their number and the first ones), without an index per row."""
-
-    def __init__(self, first, count):
-        self.first_rows, self.count = first, count
-
-    def __len__(self):
-        return self.count
-
-    def __getitem__(self, k):
-        return self.first_rows[k]
 
 
 class _ChunkParser:
@@ -484,22 +456,10 @@ class _ChunkParser:
         (:data:`~workbench.io.table.SAMPLE_MISSING_TEXTS`, any case): the values parsed
         as in a clean chunk with those texts as missing, and for each column the texts as
         typed -> their rows (in order of first appearance); None for any other chunk."""
-        try:
-            cells = pd.read_csv(io.BytesIO(chunk), header=None, names=self.names,
-                                usecols=self.used[2:], dtype=str, keep_default_na=False,
-                                na_filter=False, low_memory=False)
-        except (ValueError, IndexError, TypeError, pd.errors.ParserError):
-            return None
-        found, texts = {}, set()
-        for name in self.used[2:]:
-            s = cells[name]
-            m = (s != "").to_numpy() & s.str.lower().isin(SAMPLE_MISSING_TEXTS).to_numpy()
-            if m.any():
-                at, typed = np.flatnonzero(m), s.to_numpy()[m]
-                found[name] = {t: at[typed == t] for t in pd.unique(typed)}
-                texts.update(found[name])
+        found = metlocate.missing_texts(chunk, self.names, self.used[2:])
         if not found:
             return None
+        texts = {t for col in found.values() for t in col}
         try:
             return self._frame(chunk, [""] + sorted(texts)), found
         except (ValueError, IndexError, TypeError, pd.errors.ParserError):
@@ -635,7 +595,7 @@ def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variabl
     unknown = [raw_headers[c] for c in raw_headers if c not in set(variables) | {"site", "time"}]
     if unknown:
         ledger.notes.append(f"{path.name}: columns not used: {', '.join(unknown)}")
-    note = rows.missing_note(path, raw_headers, first_line)
+    note = metlocate.missing_note(path, raw_headers, rows.missing, first_line)
     if note:
         ledger.notes.append(note)
     return ds, ledger

@@ -331,3 +331,74 @@ def _raise_zones(path, meta, headers, raw_headers, catalogue, zones, line_text):
     sites = tab.text("site")
     tab.times("time", catalogue.utc_offsets(sites))
     check_time_zones(tab, sites, names=("time",))
+
+
+def missing_texts(chunk, names, columns):
+    """The missing-value texts of a chunk (:data:`~workbench.io.table.SAMPLE_MISSING_TEXTS`,
+    any case; not the empty cell): column -> {text as typed: its rows in the chunk}, the
+    texts in order of first appearance; None when the chunk cannot be parsed.
+
+    Parameters
+    ----------
+    chunk : bytes
+        Whole data lines.
+    names : list of str
+        Column names of the header.
+    columns : list of str
+        The numeric columns read.
+    """
+    try:
+        cells = pd.read_csv(io.BytesIO(chunk), header=None, names=names, usecols=columns,
+                            dtype=str, keep_default_na=False, na_filter=False,
+                            low_memory=False)
+    except (ValueError, IndexError, TypeError, pd.errors.ParserError):
+        return None
+    found = {}
+    for name in columns:
+        s = cells[name]
+        m = (s != "").to_numpy() & s.str.lower().isin(SAMPLE_MISSING_TEXTS).to_numpy()
+        if m.any():
+            at, typed = np.flatnonzero(m), s.to_numpy()[m]
+            found[name] = {t: at[typed == t] for t in pd.unique(typed)}
+    return found
+
+
+def missing_note(path, raw_headers, missing, first_line):
+    """The line reader's ledger note on the texts read as missing
+    (:meth:`RawTable.missing_note`), from the counts of the chunked reader; "" when
+    there were none.
+
+    Parameters
+    ----------
+    raw_headers : dict
+        Column name -> header text, in the file's order.
+    missing : dict
+        Column name -> {text as typed: [count, first (at most 5) rows of the file]},
+        the texts in order of first appearance.
+    first_line : int
+        File line of row 0.
+    """
+    cols = [c for c in raw_headers if c in missing]
+    lines, seen = [], {}
+    for c in cols:
+        seen[c] = {}
+        for text, (count, first) in missing[c].items():
+            seen[c][text] = _Counted(np.arange(len(lines), len(lines) + len(first)), count)
+            lines += [first_line + r for r in first]
+    tab = RawTable(Path(path), {}, pd.DataFrame(columns=cols), np.array(lines, np.int64),
+                   {}, raw_headers, seen)
+    return tab.missing_note()
+
+
+class _Counted:
+    """The rows of one missing-value text as :meth:`RawTable.missing_note` reads them
+    (their number and the first ones), without an index per row."""
+
+    def __init__(self, first, count):
+        self.first_rows, self.count = first, count
+
+    def __len__(self):
+        return self.count
+
+    def __getitem__(self, k):
+        return self.first_rows[k]
