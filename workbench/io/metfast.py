@@ -23,8 +23,10 @@ reading peak is set by the chunk and group sizes and the threads, not by the fil
 It takes only files it can read exactly as the line-by-line reader does: plain
 ``# key: value`` lines above the header, no quotes, no blanks in the data rows, no
 blank lines, ASCII data, every row with the header's number of fields, and for the
-rows themselves every cell a number, a known site and a valid timestamp on the hour,
-no repeated hour.  An error of one row (the last conditions) it locates itself as the
+rows themselves every cell a number or a missing-value text (counted for the ledger
+note as the line reader counts them), a known site and a valid timestamp on the hour,
+each site's timestamps all zoned or all naive (per-site tallies of the zone flags,
+:class:`~.metlocate.ZoneTally`), no repeated hour.  An error of one row (the last conditions) it locates itself as the
 line reader does (:mod:`.metlocate`); for any other file it returns None and
 :func:`workbench.io.met.read_met` reads it line by line, which gives the located error
 or handles the oddity (so the messages stay those of one reader).  The values, the
