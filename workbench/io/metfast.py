@@ -36,6 +36,7 @@ threads (tests/io/test_metfast.py).
 from __future__ import annotations
 
 import io
+import itertools
 import re
 import tempfile
 import threading
@@ -55,13 +56,18 @@ from .ledger import CodedRows, Ledger
 from .linechunks import Source, gunzip, line_cells, plain
 from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
-from .table import _OFFSET, YEARS
+from .table import _OFFSET, SAMPLE_MISSING_TEXTS, YEARS
 
 #: Bytes of text parsed at a time (by each thread; see :func:`workbench.threads.map_ordered`).
 CHUNK_BYTES = 8 << 20
 #: Rows of met checked at a time (whole sites; the checks are per site), divided among
 #: the threads (each checks a group of ``CHECK_ROWS / threads`` rows).
 CHECK_ROWS = 400_000
+#: The missing-value texts of the sample readers (:data:`~.table.SAMPLE_MISSING_TEXTS`) in
+#: every case ("NA", "Na", "nA", "na", ...), and the empty cell: the C parser's missing
+#: values for a chunk that holds such a text (it compares them as typed).
+_ANY_CASE = [""] + sorted({"".join(c) for t in SAMPLE_MISSING_TEXTS if t
+                           for c in itertools.product(*({ch.lower(), ch.upper()} for ch in t))})
 #: What :func:`_checked` returns for a repeated hour (located by :mod:`.metlocate`).
 _REPEAT = object()
 #: Blanks other than the newline (what ``\s`` matches in bytes), found by a substring
@@ -458,14 +464,13 @@ class _ChunkParser:
         (:data:`~workbench.io.table.SAMPLE_MISSING_TEXTS`, any case): the values parsed
         as in a clean chunk with those texts as missing, and for each column the texts as
         typed -> their rows (in order of first appearance); None for any other chunk."""
-        found = metlocate.missing_texts(chunk, self.names, self.used[2:])
-        if not found:
-            return None
-        texts = {t for col in found.values() for t in col}
-        try:
-            return self._frame(chunk, [""] + sorted(texts)), found
+        try:             # the same C parser as a clean chunk: the same values
+            df = self._frame(chunk, _ANY_CASE)
         except (ValueError, IndexError, TypeError, pd.errors.ParserError):
             return None                  # another text beside them: located
+        cols = [c for c in self.used[2:] if df[c].isna().any()]    # only these hold texts
+        found = metlocate.missing_texts(chunk, self.names, cols)
+        return (df, found) if found else None
 
     def _locate(self, chunk):
         """The first row of each kind of failure (metlocate), or None."""
