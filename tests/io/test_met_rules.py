@@ -98,23 +98,26 @@ def test_one_convention_per_site_reads_the_zone_as_written(tmp_path, cat, monkey
 
 
 @pytest.mark.parametrize("text", ["NA", "na", "N/A", "n/a", "NaN", "nan", "NAN", "-", "--"])
-def test_missing_value_texts_are_counted(tmp_path, cat, monkeypatch, text):
+@pytest.mark.parametrize("col, name", [(3, "temperature"), (7, "pressure")])
+def test_missing_value_texts_are_counted(tmp_path, cat, monkeypatch, text, col, name):
     """Each missing-value text (any case) is a missing value, named in one note with its
-    column, count and lines; the row keeps its other values."""
+    column, count and lines (in a middle column and in the last one); the row keeps its
+    other values."""
     rows = _rows("alpha", 1, 24)
     for k in (3, 7):
-        cells = rows[k].split(",")
-        cells[3] = text
-        rows[k] = ",".join(cells)
+        cells = rows[k].rstrip("\n").split(",")
+        cells[col] = text
+        rows[k] = ",".join(cells) + "\n"
     p = tmp_path / "met.csv"
     p.write_text(HEAD + "".join(rows))
     fast, line = _both(monkeypatch, p, cat)
     assert fast[1].notes == line[1].notes
-    assert (f"met.csv: cells read as missing (as empty cells): temperature [degC] {text!r} x2 "
+    header = {"temperature": "temperature [degC]", "pressure": "pressure [hPa]"}[name]
+    assert (f"met.csv: cells read as missing (as empty cells): {header} {text!r} x2 "
             "(lines 5, 9)") in fast[1].notes
-    temp = fast[0]["temperature"].sel(site="alpha").values
-    assert np.isnan(temp).sum() == 2
-    np.testing.assert_array_equal(temp, line[0]["temperature"].sel(site="alpha").values)
+    got = fast[0][name].sel(site="alpha").values
+    assert np.isnan(got).sum() == 2
+    np.testing.assert_array_equal(got, line[0][name].sel(site="alpha").values)
     assert (fast[1].table["status"] != "rejected").all()
 
 

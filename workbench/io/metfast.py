@@ -468,8 +468,9 @@ class _ChunkParser:
             df = self._frame(chunk, _ANY_CASE)
         except (ValueError, IndexError, TypeError, pd.errors.ParserError):
             return None                  # another text beside them: located
-        cols = [c for c in self.used[2:] if df[c].isna().any()]    # only these hold texts
-        found = metlocate.missing_texts(chunk, self.names, cols)
+        nan = {c: df[c].isna().to_numpy() for c in self.used[2:]}
+        found = metlocate.missing_texts(chunk, self.names, {c: v for c, v in nan.items()
+                                                            if v.any()})
         return (df, found) if found else None
 
     def _locate(self, chunk):

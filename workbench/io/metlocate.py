@@ -333,33 +333,50 @@ def _raise_zones(path, meta, headers, raw_headers, catalogue, zones, line_text):
     check_time_zones(tab, sites, names=("time",))
 
 
-def missing_texts(chunk, names, columns):
-    """The missing-value texts of a chunk (:data:`~workbench.io.table.SAMPLE_MISSING_TEXTS`,
-    any case; not the empty cell): column -> {text as typed: its rows in the chunk}, the
-    texts in order of first appearance; None when the chunk cannot be parsed.
+def missing_texts(chunk, names, nan):
+    """The missing-value texts of a chunk, from the byte positions of its cells.
 
     Parameters
     ----------
     chunk : bytes
-        Whole data lines.
+        Whole data lines (ASCII, no quotes, blanks or blank lines, each line with the
+        header's number of fields), parsed with every missing-value text as missing.
     names : list of str
         Column names of the header.
-    columns : list of str
-        The numeric columns read.
+    nan : dict
+        Column name -> bool array, the rows parsed as missing (every non-empty one holds
+        a missing-value text).
+
+    Returns
+    -------
+    dict or None
+        Column -> {text as typed: its rows in the chunk}, the texts in order of first
+        appearance; the empty cells left out.  None when the lines are not the rows.
     """
-    try:
-        cells = pd.read_csv(io.BytesIO(chunk), header=None, names=names, usecols=columns,
-                            dtype=str, keep_default_na=False, na_filter=False,
-                            low_memory=False)
-    except (ValueError, IndexError, TypeError, pd.errors.ParserError):
-        return None
+    n = len(next(iter(nan.values()))) if nan else 0
+    if not n:
+        return {}
+    text = np.frombuffer(chunk, np.uint8)
+    ends = np.flatnonzero(text == 10)[:n]
+    if len(ends) < n:                           # the last line without a line break
+        ends = np.append(ends, len(chunk))
+    commas = np.flatnonzero(text == 44)
+    if len(commas) != n * (len(names) - 1):
+        return None                             # not one row per line: the line reader
+    commas = commas.reshape(n, len(names) - 1)
+    starts = np.concatenate([[0], ends[:-1] + 1])
     found = {}
-    for name in columns:
-        s = cells[name]
-        m = (s != "").to_numpy() & s.str.lower().isin(SAMPLE_MISSING_TEXTS).to_numpy()
-        if m.any():
-            at, typed = np.flatnonzero(m), s.to_numpy()[m]
-            found[name] = {t: at[typed == t] for t in pd.unique(typed)}
+    for name, rows in nan.items():
+        j = names.index(name)
+        at = np.flatnonzero(rows)
+        a = starts[at] if j == 0 else commas[at, j - 1] + 1
+        b = ends[at] if j == len(names) - 1 else commas[at, j]
+        typed_at = at[b > a]                      # not the empty cells
+        if not len(typed_at):
+            continue
+        typed = np.array([chunk[x:y].decode("ascii") for x, y in
+                          zip(a[b > a].tolist(), b[b > a].tolist())], dtype=object)
+        found[name] = {t: typed_at[typed == t] for t in pd.unique(typed)}
     return found
 
 
