@@ -26,12 +26,12 @@ blank lines, ASCII data, every row with the header's number of fields, and for t
 rows themselves every cell a number or a missing-value text (counted for the ledger
 note as the line reader counts them), a known site and a valid timestamp on the hour,
 each site's timestamps all zoned or all naive (per-site tallies of the zone flags,
-:class:`~.metlocate.ZoneTally`), no repeated hour.  An error of one row (the last conditions) it locates itself as the
-line reader does (:mod:`.metlocate`); for any other file it returns None and
-:func:`workbench.io.met.read_met` reads it line by line, which gives the located error
-or handles the oddity (so the messages stay those of one reader).  The values, the
-ledger, the notes and the errors are the line-by-line reader's, on any number of
-threads (tests/io/test_metfast.py).
+:class:`~.metlocate.ZoneTally`), no repeated hour.  An error of one row (the last
+conditions) it locates itself as the line reader does (:mod:`.metlocate`); for any
+other file it returns None and :func:`workbench.io.met.read_met` reads it line by
+line, which gives the located error or handles the oddity (so the messages stay those
+of one reader).  The values, the ledger, the notes and the errors are the line-by-line
+reader's, on any number of threads (tests/io/test_metfast.py).
 """
 from __future__ import annotations
 
@@ -501,7 +501,8 @@ def _parse(source, rows, parser, chunk_bytes, size_hint, first_line):
                 keep = keep and got.valid
                 zones_known = zones_known and not any(k[0] in ("site", "time")
                                                       for k in got.firsts)
-                site_idx, t, n, n_bytes, zoned = got.site_idx, got.t, got.n, got.n_bytes, got.zoned
+                site_idx, t, n, n_bytes = got.site_idx, got.t, got.n, got.n_bytes
+                zoned = got.zoned
                 values = {k: np.full(n, np.nan) for k in rows.names}
             else:
                 site_idx, t, values, n, n_bytes, zoned, found = got
