@@ -77,13 +77,13 @@ def test_demo_met_as_the_line_reader(monkeypatch):
 @pytest.mark.parametrize("chunk", [300, 4096, 1 << 20])
 def test_interleaved_sites_flags_and_empty_rows(tmp_path, cat, monkeypatch, chunk):
     """Sites interleaved, RH written as a fraction under % at one site (masked), an empty
-    row (rejected), a column not used, start-of-hour labels, a time with an offset and
-    no newline at the end: in chunks of any size."""
+    row (rejected), a column not used, start-of-hour labels, one site's times with an
+    offset and no newline at the end: in chunks of any size."""
     a = _rows("alpha", "2020-03-01T00:00", 24 * 40)
     b = _rows("beta", "2020-03-05T00:00", 24 * 35, rh_scale=0.01, seed=1)
+    b = [r.replace(":00,", ":00+01:00,", 1) for r in b]          # beta's labels all zoned
     rows = [r for pair in zip(a, b) for r in pair] + a[len(b):]
     rows[6] = "alpha,2020-03-01T03:00,,,,,,,,\n"                      # alpha's 4th hour, empty
-    rows[9] = rows[9].replace("2020-03-05T04:00", "2020-03-05T05:00+01:00")
     text = "# time_label: start\n# station: invented\n" + HEAD + "".join(rows)
     p = tmp_path / "met.csv.gz"
     p.write_bytes(gzip.compress(text.rstrip("\n").encode()))
@@ -407,3 +407,86 @@ def test_a_repeated_hour_in_interleaved_sites_as_the_line_reader(
         metfast.read_met_csv_fast(p, cat, chunk_bytes=3000)
     assert str(err.value) == str(line_err.value)
     assert "line 902" in str(err.value) and "also on line 12" in str(err.value)
+
+
+def _zone(lines, k, zone):
+    """Give the time of data line k a zone (appended to its text) or take it away."""
+    cells = lines[k].split(",")
+    cells[1] = cells[1] + zone if zone else cells[1].split("+")[0].rstrip("Z")
+    lines[k] = ",".join(cells)
+
+
+@pytest.mark.parametrize("case", ["zoned among naive", "naive among zoned",
+                                  "after an hour off", "zoned and off the hour"])
+@pytest.mark.parametrize("n_threads", [1, 2])
+def test_a_label_breaking_its_sites_zone_convention_as_the_line_reader(
+        tmp_path, cat, monkeypatch, threads, case, n_threads):
+    """One site's labels all zoned or all naive: the label breaking the site's majority
+    convention gets the line reader's located error from the fast reader too, from any
+    byte range; before the hours are checked (an hour off the whole hour earlier in the
+    file, or the zoned label itself off the hour, still gets the zone error).  Before,
+    the zoned row of "zoned among naive" (alpha, UTC+1, "+01:00": the same instant) was
+    read without a word."""
+    p = _grouped_file(tmp_path, gz=False)
+    lines = p.read_text().splitlines(keepends=True)
+    lines = [ln.rstrip("\n") for ln in lines]
+    if case == "naive among zoned":             # beta (UTC+0) all "Z" but one label
+        for k in range(2, len(lines)):
+            if lines[k].startswith("beta,"):
+                _zone(lines, k, "Z")
+        k = next(k for k in range(len(lines) - 1, 2, -1) if lines[k].startswith("beta,"))
+        _zone(lines, k - 200, "")
+        where = k - 200
+    else:
+        where = 500
+        _zone(lines, where, "+05:30" if case == "zoned and off the hour" else "+01:00")
+        if case == "after an hour off":
+            _cell(lines, 30, 1, lines[30].split(",")[1][:-2] + "30")
+    p.write_text("\n".join(lines) + "\n")
+    with pytest.raises(InputError, match="mix zoned and naive timestamps") as line_err:
+        _line_reader(monkeypatch, p, cat)
+    assert f"line {where + 1}," in str(line_err.value)
+    threads(n_threads)
+    for chunk in (4000, 1 << 20):
+        with pytest.raises(InputError) as err:
+            metfast.read_met_csv_fast(p, cat, chunk_bytes=chunk)
+        assert str(err.value) == str(line_err.value)
+
+
+@pytest.mark.parametrize("chunk", [3000, 1 << 20])
+@pytest.mark.parametrize("n_threads", [1, 2])
+def test_missing_value_texts_as_the_line_reader(tmp_path, cat, monkeypatch, on_disk, threads,
+                                                chunk, n_threads):
+    """NA, n/a, N/A, NaN, nan, - and -- cells (any case) in several columns and byte
+    ranges, one row of them only (rejected: no values), one in the column not used (not
+    counted): the same values, ledger and note from both readers, on one thread or two."""
+    p = _grouped_file(tmp_path, gz=False)
+    lines = p.read_text().splitlines(keepends=True)
+    lines = [ln.rstrip("\n") for ln in lines]
+    for k, col, value in [(10, 2, "NA"), (20, 3, "n/a"), (300, 3, "N/A"), (400, 7, "NaN"),
+                          (450, 7, "nan"), (800, 4, "--"), (900, 9, "NA"), (1000, 2, "Na")]:
+        _cell(lines, k, col, value)
+    for k in range(600, 1200, 70):             # 9 of them: "and 4 more"
+        _cell(lines, k, 6, "-")
+    for col in range(2, 9):
+        _cell(lines, 700, col, "NA")
+    p.write_text("\n".join(lines) + "\n")
+    threads(n_threads)
+    fast = metfast.read_met_csv_fast(p, cat, chunk_bytes=chunk)
+    assert fast is not None
+    line = _line_reader(monkeypatch, p, cat)
+    assert_same(fast, line)
+    note = [n for n in fast[1].notes if "read as missing" in n]
+    assert note == [
+        "met.csv: cells read as missing (as empty cells): wind_speed [m/s] 'NA' x2 (lines "
+        "11, 701); wind_speed [m/s] 'Na' x1 (line 1001); temperature [degC] 'n/a' x1 (line "
+        "21); temperature [degC] 'N/A' x1 (line 301); temperature [degC] 'NA' x1 (line 701); "
+        "relative_humidity [%] 'NA' x1 (line 701); relative_humidity [%] '--' x1 (line 801); "
+        "solar_radiation [W/m2] 'NA' x1 (line 701); precipitation [mm] '-' x9 (lines 601, "
+        "671, 741, 811, 881 and 4 more); precipitation [mm] 'NA' x1 (line 701); pressure "
+        "[hPa] 'NaN' x1 (line 401); pressure [hPa] 'nan' x1 (line 451); pressure [hPa] 'NA' "
+        "x1 (line 701); cloud_cover [okta] 'NA' x1 (line 701)"]
+    table = fast[1].table
+    assert table.loc[table["line"] == 701, "status"].item() == "rejected"
+    ds = fast[0]
+    assert np.isnan(ds["wind_speed"].values).sum() > 0

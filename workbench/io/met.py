@@ -15,7 +15,7 @@ import xarray as xr
 
 from ..errors import InputError, suggest
 from . import metchecks
-from .common import check_sites, join_reasons, unit_error
+from .common import check_sites, check_time_zones, join_reasons, unit_error
 from .ledger import Ledger
 from .table import RawTable
 
@@ -24,7 +24,7 @@ from .metvars import site_time_dataset
 
 
 def _convert(tab: RawTable, name: str, target: str):
-    raw = tab.numbers(name)
+    raw = tab.numbers(name, missing="samples")        # NA, N/A, NaN, - ... counted
     unit = tab.unit_of(name, default="1" if target == "1" else None)
     try:
         return convert_met(raw, unit, name, target), unit
@@ -42,6 +42,10 @@ def read_met(path, catalogue):
         :data:`MET_VARIABLES` (units in the headers), or a NetCDF file with dims
         (site, time) and ``units`` attributes, or a zarr store of the same layout (a
         folder ``met.zarr`` or a zipped ``met.zarr.zip``; :mod:`workbench.io.metzarr`).
+        In a CSV, every time label of one site carries a zone or none (the first label
+        breaking the site's convention is an error, :func:`~workbench.io.common.check_time_zones`),
+        and empty, NA, N/A, NaN, - and -- (any case) are missing values, counted in one
+        ledger note per file (the sample readers' rules, docs/data_formats.md).
     catalogue : SiteCatalogue
 
     Returns
@@ -70,6 +74,7 @@ def read_met(path, catalogue):
         raise InputError("unknown time label", file=tab.path, line=1, column="time_label",
                          value=label, expected="'end' or 'start'")
     t = tab.times("time", off)
+    check_time_zones(tab, sites, names=("time",))     # one convention per site
     if label == "start":
         t = t + HOUR
 
@@ -86,6 +91,8 @@ def read_met(path, catalogue):
     unknown = tab.unknown_columns(set(MET_VARIABLES) | {"site", "time"})
     if unknown:
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
+    if tab.missing_note():
+        ledger.notes.append(tab.missing_note())
     return ds, ledger
 
 

@@ -23,17 +23,20 @@ reading peak is set by the chunk and group sizes and the threads, not by the fil
 It takes only files it can read exactly as the line-by-line reader does: plain
 ``# key: value`` lines above the header, no quotes, no blanks in the data rows, no
 blank lines, ASCII data, every row with the header's number of fields, and for the
-rows themselves every cell a number, a known site and a valid timestamp on the hour,
-no repeated hour.  An error of one row (the last conditions) it locates itself as the
-line reader does (:mod:`.metlocate`); for any other file it returns None and
-:func:`workbench.io.met.read_met` reads it line by line, which gives the located error
-or handles the oddity (so the messages stay those of one reader).  The values, the
-ledger, the notes and the errors are the line-by-line reader's, on any number of
-threads (tests/io/test_metfast.py).
+rows themselves every cell a number or a missing-value text (counted for the ledger
+note as the line reader counts them), a known site and a valid timestamp on the hour,
+each site's timestamps all zoned or all naive (per-site tallies of the zone flags,
+:class:`~.metlocate.ZoneTally`), no repeated hour.  An error of one row (the last
+conditions) it locates itself as the line reader does (:mod:`.metlocate`); for any
+other file it returns None and :func:`workbench.io.met.read_met` reads it line by
+line, which gives the located error or handles the oddity (so the messages stay those
+of one reader).  The values, the ledger, the notes and the errors are the line-by-line
+reader's, on any number of threads (tests/io/test_metfast.py).
 """
 from __future__ import annotations
 
 import io
+import itertools
 import re
 import tempfile
 import threading
@@ -53,13 +56,18 @@ from .ledger import CodedRows, Ledger
 from .linechunks import Source, gunzip, line_cells, plain
 from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
-from .table import _OFFSET, MISSING_TEXTS, YEARS
+from .table import _OFFSET, SAMPLE_MISSING_TEXTS, YEARS
 
 #: Bytes of text parsed at a time (by each thread; see :func:`workbench.threads.map_ordered`).
 CHUNK_BYTES = 8 << 20
 #: Rows of met checked at a time (whole sites; the checks are per site), divided among
 #: the threads (each checks a group of ``CHECK_ROWS / threads`` rows).
 CHECK_ROWS = 400_000
+#: The missing-value texts of the sample readers (:data:`~.table.SAMPLE_MISSING_TEXTS`) in
+#: every case ("NA", "Na", "nA", "na", ...), and the empty cell: the C parser's missing
+#: values for a chunk that holds such a text (it compares them as typed).
+_ANY_CASE = [""] + sorted({"".join(c) for t in SAMPLE_MISSING_TEXTS if t
+                           for c in itertools.product(*({ch.lower(), ch.upper()} for ch in t))})
 #: What :func:`_checked` returns for a repeated hour (located by :mod:`.metlocate`).
 _REPEAT = object()
 #: Blanks other than the newline (what ``\s`` matches in bytes), found by a substring
@@ -161,16 +169,20 @@ class _TimeTexts:
             return where, self.value, self.aware
 
     def rows(self, cats, codes, off_ns, site_idx):
-        """End-of-row times [ns] (UTC) of a chunk; None when a text is no valid time."""
+        """End-of-row times [ns] (UTC) of a chunk and the rows whose text carries a zone
+        (None: none does); None when a text is no valid time."""
         got = self._lookup(pd.Index(np.asarray(cats, dtype=object)))
         if got is None:
             return None
         where, value, aware = got
         k = where[codes]
         t = value[k]
-        naive = ~aware[k]
+        zoned = aware[k]
+        if not zoned.any():
+            return t - off_ns[site_idx], None
+        naive = ~zoned
         t[naive] = t[naive] - off_ns[site_idx[naive]]
-        return t
+        return t, zoned
 
 
 def read_met_csv_fast(path, catalogue, chunk_bytes=CHUNK_BYTES):
@@ -258,15 +270,21 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
         if not ok:
             return None
         got = None
-        if not firsts:
+        zones = None
+        if not any(k[0] in ("site", "time") for k in firsts):   # else raised before
+            zones = rows.zones.first_break()
+            zones = None if zones is None else (zones[0] + n_meta + 2, zones[1] + n_meta + 2)
+        if not firsts and zones is None:
             got = _checked(rows, n_meta + 2, path, catalogue, ids, units, raw_headers,
                            variables, hour)
             if got is not _REPEAT:
                 return got
         before = any(k[0] in ("site", "time", "hour") for k in firsts)   # checked first
+        before = before or zones is not None
         repeat = None if before else metlocate.first_repeat(rows, n_meta + 2, CHECK_ROWS)
         metlocate.raise_first(path, meta, heads, raw_headers, firsts, catalogue, label, hour,
-                              repeat, lambda line: line_cells(path, names, line, CHUNK_BYTES))
+                              repeat, lambda line: line_cells(path, names, line, CHUNK_BYTES),
+                              zones)
         return None                    # nothing raised: the line reader judges the file
 
 
@@ -287,6 +305,17 @@ class _Spill:
         self.grouped = True
         self.last = -1
         self.t_min = self.t_max = None
+        self.zones = metlocate.ZoneTally(n_sites)
+        #: column -> {missing-value text: [count, first (at most 5) rows of the file]}
+        self.missing = {}
+
+    def count_missing(self, found, row0):
+        """Count the missing-value texts of a chunk starting at file row `row0`."""
+        for name, texts in found.items():
+            for text, at in texts.items():
+                e = self.missing.setdefault(name, {}).setdefault(text, [0, []])
+                e[0] += len(at)
+                e[1].extend((row0 + at[:max(5 - len(e[1]), 0)]).tolist())
 
     def add(self, site, t, values, capacity):
         if self.site is None:
@@ -379,15 +408,16 @@ class _ChunkParser:
                 or np.count_nonzero(text == 44) != n * (len(self.names) - 1)):
             return None
         del text, ends
+        found = None     # texts read as missing: column -> {text: rows of the chunk}
         try:             # low_memory=False: one pass over the chunk, no pieces to join
-            df = pd.read_csv(io.BytesIO(chunk), header=None, names=self.names,
-                             usecols=self.used, dtype=self.dtype,
-                             na_values=list(MISSING_TEXTS), keep_default_na=False,
-                             skip_blank_lines=False, low_memory=False)
+            df = self._frame(chunk, [""])
         except pd.errors.ParserError:
             return None
         except (ValueError, IndexError, TypeError):
-            return self._locate(chunk)         # a cell that is no number: located
+            got = self._missing_texts(chunk)    # NA, N/A, - ... or a cell that is no number
+            if got is None:
+                return self._locate(chunk)
+            df, found = got
         if len(df) != n:
             return None
         sc = df["site"].cat
@@ -400,9 +430,10 @@ class _ChunkParser:
         tcodes = tc.codes.to_numpy()
         if (tcodes < 0).any():
             return self._locate(chunk)
-        t = self.times.rows(tc.categories, tcodes, self.off_ns, site_idx)
-        if t is None:
+        got = self.times.rows(tc.categories, tcodes, self.off_ns, site_idx)
+        if got is None:
             return self._locate(chunk)
+        t, zoned = got
         if self.label == "start":
             t = t + self.hour
         if (t != t.astype("datetime64[h]").astype("datetime64[ns]")).any():
@@ -420,7 +451,27 @@ class _ChunkParser:
             got[name] = self.convert(v, self.units[name], name, self.variables[name][0])
         if words and _WORDS.search(chunk):
             return self._locate(chunk)
-        return site_idx, t, got, n, len(chunk)
+        return site_idx, t, got, n, len(chunk), zoned, found
+
+    def _frame(self, chunk, na):
+        return pd.read_csv(io.BytesIO(chunk), header=None, names=self.names,
+                           usecols=self.used, dtype=self.dtype,
+                           na_values={c: na for c in self.used[2:]}, keep_default_na=False,
+                           skip_blank_lines=False, low_memory=False)
+
+    def _missing_texts(self, chunk):
+        """(frame, texts) of a chunk whose only non-numbers are missing-value texts
+        (:data:`~workbench.io.table.SAMPLE_MISSING_TEXTS`, any case): the values parsed
+        as in a clean chunk with those texts as missing, and for each column the texts as
+        typed -> their rows (in order of first appearance); None for any other chunk."""
+        try:             # the same C parser as a clean chunk: the same values
+            df = self._frame(chunk, _ANY_CASE)
+        except (ValueError, IndexError, TypeError, pd.errors.ParserError):
+            return None                  # another text beside them: located
+        nan = {c: df[c].isna().to_numpy() for c in self.used[2:]}
+        found = metlocate.missing_texts(chunk, self.names, {c: v for c, v in nan.items()
+                                                            if v.any()})
+        return (df, found) if found else None
 
     def _locate(self, chunk):
         """The first row of each kind of failure (metlocate), or None."""
@@ -438,19 +489,27 @@ def _parse(source, rows, parser, chunk_bytes, size_hint, first_line):
     comes before any check over all rows), but every chunk is still parsed, since a
     later row may hold an error the line reader raises first."""
     parsed = map_ordered(parser, source.chunks(chunk_bytes))
-    firsts, keep, seen = {}, True, 0
+    firsts, keep, zones_known, seen = {}, True, True, 0
     try:
         for got in parsed:
             if got is None:
                 return False, {}
+            found = None
             if isinstance(got, metlocate.Located):
                 for kind, (i, cells) in got.firsts.items():
                     firsts.setdefault(kind, (first_line + seen + i, cells))
                 keep = keep and got.valid
+                zones_known = zones_known and not any(k[0] in ("site", "time")
+                                                      for k in got.firsts)
                 site_idx, t, n, n_bytes = got.site_idx, got.t, got.n, got.n_bytes
+                zoned = got.zoned
                 values = {k: np.full(n, np.nan) for k in rows.names}
             else:
-                site_idx, t, values, n, n_bytes = got
+                site_idx, t, values, n, n_bytes, zoned, found = got
+            if zones_known:          # the zone check comes before the hours: every row
+                rows.zones.add(site_idx, zoned, seen)
+            if found:
+                rows.count_missing(found, seen)
             if keep:
                 est = int(size_hint / max(n_bytes, 1) * n * 1.02) + n   # rows, from the size
                 rows.add(site_idx, t, values, est)
@@ -545,4 +604,7 @@ def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variabl
     unknown = [raw_headers[c] for c in raw_headers if c not in set(variables) | {"site", "time"}]
     if unknown:
         ledger.notes.append(f"{path.name}: columns not used: {', '.join(unknown)}")
+    note = metlocate.missing_note(path, raw_headers, rows.missing, first_line)
+    if note:
+        ledger.notes.append(note)
     return ds, ledger

@@ -29,7 +29,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import InputError
-from .table import _OFFSET, MISSING_TEXTS, YEARS, RawTable
+from .table import _OFFSET, SAMPLE_MISSING_TEXTS, YEARS, RawTable
 
 
 class Located:
@@ -46,10 +46,13 @@ class Located:
         each kind of failure.
     n, n_bytes : int
         Rows and bytes of the chunk.
+    zoned : numpy.ndarray of bool
+        The row's time carries a zone (``Z`` or an offset).
     """
 
-    def __init__(self, site_idx, t, firsts, n, n_bytes):
+    def __init__(self, site_idx, t, firsts, n, n_bytes, zoned):
         self.site_idx, self.t, self.firsts, self.n, self.n_bytes = site_idx, t, firsts, n, n_bytes
+        self.zoned = zoned
 
     @property
     def valid(self) -> bool:
@@ -146,11 +149,11 @@ def suspicious_rows(chunk, names, used, index, off_ns, label, hour):
         v = pd.to_numeric(cells, errors="coerce").to_numpy(dtype=float)
         odd = np.isnan(v)
         first((name, "censored"), odd & cells.str.startswith("<").to_numpy())
-        first((name, "text"), odd & ~cells.isin(MISSING_TEXTS).to_numpy())
+        first((name, "text"), odd & ~cells.str.lower().isin(SAMPLE_MISSING_TEXTS).to_numpy())
         first((name, "inf"), np.isinf(v))
     if not firsts:
         return None
-    return Located(site_idx, t, firsts, n, len(chunk))
+    return Located(site_idx, t, firsts, n, len(chunk), aware)
 
 
 def first_repeat(rows, first_line, limit):
@@ -193,7 +196,7 @@ def first_repeat(rows, first_line, limit):
 
 
 def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour, repeat,
-                line_text):
+                line_text, zones=None):
     """Raise the line reader's error from the first rows of each kind (or return).
 
     Parameters
@@ -212,6 +215,9 @@ def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour
         From :func:`first_repeat` (None: no repeated hour, or not looked for).
     line_text : callable
         ``line_text(line)`` -> the cells of that file line (for the repeated hour).
+    zones : (int, int) or None
+        File lines of the first label breaking its site's zone convention and of the
+        site's first label in that convention (:meth:`ZoneTally.first_break`).
 
     Raises
     ------
@@ -219,6 +225,8 @@ def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour
         As :func:`workbench.io.met.read_met` raises it for the whole file.
     """
     if not firsts:
+        if zones is not None:
+            _raise_zones(path, meta, headers, raw_headers, catalogue, zones, line_text)
         if repeat is not None:
             _raise_repeat(path, raw_headers, repeat, line_text)
         return
@@ -232,6 +240,8 @@ def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour
                    {c: raw_headers[c] for c in frame.columns})
     sites = check_sites(tab, catalogue)
     t = tab.times("time", catalogue.utc_offsets(sites))
+    if zones is not None:                       # after the timestamps, before the hours
+        _raise_zones(path, meta, headers, raw_headers, catalogue, zones, line_text)
     if label == "start":
         t = t + hour
     off_hour = (t - t.astype("datetime64[h]").astype("datetime64[ns]")) != np.timedelta64(0, "ns")
@@ -243,7 +253,7 @@ def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour
         _raise_repeat(path, raw_headers, repeat, line_text)
     for name in MET_VARIABLES:         # as workbench.io.met._convert (units checked before)
         if tab.has(name):
-            tab.numbers(name)
+            tab.numbers(name, missing="samples")
 
 
 def _raise_repeat(path, raw_headers, repeat, line_text):
@@ -252,3 +262,160 @@ def _raise_repeat(path, raw_headers, repeat, line_text):
     raise InputError("duplicate hourly timestamp", file=Path(path), line=line,
                      column=raw_headers["time"], value=line_text(line)["time"],
                      expected=f"one row per site and hour (also on line {first})")
+
+
+class ZoneTally:
+    """Per site, over the rows of a file in order: the rows, the rows whose time carries
+    a zone, and the first row of each kind (0-based rows of the file), so that the
+    line reader's :func:`~workbench.io.common.check_time_zones` (a site's labels all
+    zoned or all naive, the site's convention that of most of its labels, on a tie of
+    its first) can be judged without keeping a flag per row."""
+
+    def __init__(self, n_sites):
+        self.count = np.zeros(n_sites, np.int64)
+        self.zoned = np.zeros(n_sites, np.int64)
+        self.first = {True: np.full(n_sites, -1, np.int64), False: np.full(n_sites, -1, np.int64)}
+
+    def add(self, site, zoned, row0):
+        """Rows `row0`, `row0` + 1, ... of the file: catalogue positions `site` (all
+        known) and the zone flags `zoned` (None: none zoned)."""
+        counts = np.bincount(site, minlength=len(self.count))
+        self.count += counts
+        if zoned is None or not zoned.any():
+            parts = ((False, site, None, counts),)
+        elif zoned.all():
+            parts = ((True, site, None, counts),)
+        else:
+            at_z, at_n = np.flatnonzero(zoned), np.flatnonzero(~zoned)
+            parts = ((True, site[at_z], at_z, None), (False, site[at_n], at_n, None))
+        for kind, s, at_rows, c in parts:
+            c = np.bincount(s, minlength=len(self.count)) if c is None else c
+            if kind:
+                self.zoned += c
+            fk = self.first[kind]
+            if not ((c > 0) & (fk < 0)).any():      # no site's first of this kind here
+                continue
+            u, at = np.unique(s, return_index=True)
+            at = at if at_rows is None else at_rows[at]
+            new = fk[u] < 0
+            fk[u[new]] = row0 + at[new]
+
+    def first_break(self):
+        """(row, reference row): the first row of the file whose label breaks its site's
+        convention and the site's first row in that convention; None when every site
+        keeps one."""
+        s = np.flatnonzero((self.zoned > 0) & (self.zoned < self.count))
+        if not len(s):
+            return None
+        fz, fn = self.first[True][s], self.first[False][s]
+        two = 2 * self.zoned[s]
+        conv = np.where(two == self.count[s], fz < fn, two > self.count[s])
+        off, ref = np.where(conv, fn, fz), np.where(conv, fz, fn)
+        j = int(np.argmin(off))
+        return int(off[j]), int(ref[j])
+
+
+def _raise_zones(path, meta, headers, raw_headers, catalogue, zones, line_text):
+    """The line reader's error for a label breaking its site's zone convention: its own
+    check on a table of the two lines, the reference line twice (so that it holds the
+    site's majority, as over the whole file)."""
+    from .common import check_time_zones
+    line, ref = zones
+    cells = {line: line_text(line), ref: line_text(ref)}
+    order = sorted([line, ref, ref])
+    frame = pd.DataFrame({c: pd.Series([cells[k][c] for k in order], dtype=object)
+                          for c in ("site", "time")})
+    tab = RawTable(Path(path), meta, frame, np.array(order, dtype=np.int64),
+                   {c: headers[c] for c in frame.columns},
+                   {c: raw_headers[c] for c in frame.columns})
+    sites = tab.text("site")
+    tab.times("time", catalogue.utc_offsets(sites))
+    check_time_zones(tab, sites, names=("time",))
+
+
+def missing_texts(chunk, names, nan):
+    """The missing-value texts of a chunk, from the byte positions of its cells.
+
+    Parameters
+    ----------
+    chunk : bytes
+        Whole data lines (ASCII, no quotes, blanks or blank lines, each line with the
+        header's number of fields), parsed with every missing-value text as missing.
+    names : list of str
+        Column names of the header.
+    nan : dict
+        Column name -> bool array, the rows parsed as missing (every non-empty one holds
+        a missing-value text).
+
+    Returns
+    -------
+    dict or None
+        Column -> {text as typed: its rows in the chunk}, the texts in order of first
+        appearance; the empty cells left out.  None when the lines are not the rows.
+    """
+    n = len(next(iter(nan.values()))) if nan else 0
+    if not n:
+        return {}
+    text = np.frombuffer(chunk, np.uint8)
+    ends = np.flatnonzero(text == 10)[:n]
+    if len(ends) < n:                           # the last line without a line break
+        ends = np.append(ends, len(chunk))
+    commas = np.flatnonzero(text == 44)
+    if len(commas) != n * (len(names) - 1):
+        return None                             # not one row per line: the line reader
+    commas = commas.reshape(n, len(names) - 1)
+    starts = np.concatenate([[0], ends[:-1] + 1])
+    found = {}
+    for name, rows in nan.items():
+        j = names.index(name)
+        at = np.flatnonzero(rows)
+        a = starts[at] if j == 0 else commas[at, j - 1] + 1
+        b = ends[at] if j == len(names) - 1 else commas[at, j]
+        typed_at = at[b > a]                      # not the empty cells
+        if not len(typed_at):
+            continue
+        typed = np.array([chunk[x:y].decode("ascii") for x, y in
+                          zip(a[b > a].tolist(), b[b > a].tolist())], dtype=object)
+        found[name] = {t: typed_at[typed == t] for t in pd.unique(typed)}
+    return found
+
+
+def missing_note(path, raw_headers, missing, first_line):
+    """The line reader's ledger note on the texts read as missing
+    (:meth:`RawTable.missing_note`), from the counts of the chunked reader; "" when
+    there were none.
+
+    Parameters
+    ----------
+    raw_headers : dict
+        Column name -> header text, in the file's order.
+    missing : dict
+        Column name -> {text as typed: [count, first (at most 5) rows of the file]},
+        the texts in order of first appearance.
+    first_line : int
+        File line of row 0.
+    """
+    cols = [c for c in raw_headers if c in missing]
+    lines, seen = [], {}
+    for c in cols:
+        seen[c] = {}
+        for text, (count, first) in missing[c].items():
+            seen[c][text] = _Counted(np.arange(len(lines), len(lines) + len(first)), count)
+            lines += [first_line + r for r in first]
+    tab = RawTable(Path(path), {}, pd.DataFrame(columns=cols), np.array(lines, np.int64),
+                   {}, raw_headers, seen)
+    return tab.missing_note()
+
+
+class _Counted:
+    """The rows of one missing-value text as :meth:`RawTable.missing_note` reads them
+    (their number and the first ones), without an index per row."""
+
+    def __init__(self, first, count):
+        self.first_rows, self.count = first, count
+
+    def __len__(self):
+        return self.count
+
+    def __getitem__(self, k):
+        return self.first_rows[k]
