@@ -66,7 +66,7 @@ def test_zoned_label_among_naive_ones_of_a_site(tmp_path, cat, monkeypatch):
     msg = _error(monkeypatch, p, cat)
     assert msg == (f"{p}, line 11, column 'time': time labels of site 'alpha' mix zoned and "
                    "naive timestamps: this one is with a time zone: got '2020-06-01T09:00+01:00'"
-                   ", expected every start and end of the site without a zone, as time "
+                   ", expected every time label of the site without a zone, as time "
                    "'2020-06-01T00:00' on line 2 (a naive label is the site's local standard "
                    "time, utc_offset_h; add the zone to every label or to none)")
 
@@ -122,7 +122,7 @@ def test_missing_value_texts_are_counted(tmp_path, cat, monkeypatch, text, col, 
 
 
 @pytest.mark.parametrize("text, problem", [
-    ("nd", "text in a numeric column (a 'not detected' code? write '<limit', e.g. '<0.02')"),
+    ("nd", "text in a numeric column (a 'not detected' code? this column takes numbers only: leave the cell empty)"),
     ("n.a.", "text in a numeric column"),
     ("missing", "text in a numeric column"),
     ("N/A?", "text in a numeric column"),

@@ -83,10 +83,11 @@ def check_time_zones(tab: RawTable, sites, names=("start", "end"), mask=None):
     ref_col = 0 if same.any() else 1 - c
     own = tab.frame[names[c]].iloc[i]
     kind = "with a time zone" if z[r, c] else "without a time zone (naive)"
+    labels = ("every start and end" if len(names) > 1 else f"every {names[0]} label")
     other = "with a zone (Z or +hh:mm)" if first[r] else "without a zone"
     raise tab.error(f"time labels of site {str(site[r])!r} mix zoned and naive timestamps: this "
                     f"one is {kind}", row=i, column=names[c], value=own,
-                    expected=f"every start and end of the site {other}, as "
+                    expected=f"{labels} of the site {other}, as "
                     f"{tab.raw_headers.get(names[ref_col], names[ref_col])} "
                     f"{tab.frame[names[ref_col]].iloc[ref]!r} on line {int(tab.lines[ref])} "
                     "(a naive label is the site's local standard time, utc_offset_h; add the zone "

@@ -265,7 +265,9 @@ class RawTable:
                 what = "text in a numeric column"
                 cell = str(s.iloc[i]).strip()
                 if cell.lower() in _NOT_DETECTED:
-                    what += " (a 'not detected' code? write '<limit', e.g. '<0.02')"
+                    what += (" (a 'not detected' code? write '<limit', e.g. '<0.02')" if censoring
+                             else " (a 'not detected' code? this column takes numbers only: "
+                             "leave the cell empty)")
                 elif re.fullmatch(r"[-+<]?\d+,\d+", cell):
                     what += " (a decimal comma? write a decimal point, e.g. '1.5')"
                 allowed = ("or empty, NA, N/A, NaN or - for missing" if missing == "samples"
