@@ -14,6 +14,20 @@ from workbench.surface.solar import solar_elevation_sine, time_parts
 
 #: Invented sites: id -> (own land use, further receptors, latitude, longitude,
 #: elevation, canopy height, wind height, sampler height, slope, met land use).
+#: sites.toml text of one invented grass site "a" (tests append their own keys).
+ONE_SITE_TOML = """[[site]]
+id = "a"
+name = "A"
+latitude = 54.0
+longitude = 7.0
+elevation_m = 100.0
+land_use = "grass"
+canopy_height_m = 0.1
+wind_height_m = 10.0
+sampler_height_m = 1.5
+utc_offset_h = 0.0
+"""
+
 SITES = {
     "alder_hill": ("conifer_forest", ("grass", "water"), 52.0, 5.0, 40.0, 15.0, 25.0, 25.0, 2.0, "conifer_forest"),
     "bramble_moor": ("grass", ("conifer_forest", "deciduous_forest", "crops"), 48.0, 10.0, 300.0, 0.12, 10.0, 2.0, 0.0, "grass"),

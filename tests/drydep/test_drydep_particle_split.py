@@ -84,18 +84,7 @@ def test_sites_key_and_scenario_override(tmp_path):
     from workbench.errors import InputError
     from workbench.io.sites import read_sites
     from workbench.pipeline import Study
-    base = """[[site]]
-id = "a"
-name = "A"
-latitude = 54.0
-longitude = 7.0
-elevation_m = 100.0
-land_use = "grass"
-canopy_height_m = 0.1
-wind_height_m = 10.0
-sampler_height_m = 1.5
-utc_offset_h = 0.0
-"""
+    from drydep.dry_synthetic import ONE_SITE_TOML as base
     f = tmp_path / "sites.toml"
     f.write_text(base + "coast_distance_km = 12.0\ncoarse_fraction = {pNO3 = 0.35}\n")
     cat = read_sites(f)

@@ -10,24 +10,12 @@ from dataclasses import replace
 import numpy as np
 import pytest
 
-from drydep.dry_synthetic import make_met, make_surfaces
+from drydep.dry_synthetic import ONE_SITE_TOML, make_met, make_surfaces
 from workbench.drydep import DryOptions, velocities
 from workbench.drydep.receptors import receptor_transfers
 from workbench.errors import InputError
 
-SITE = """[[site]]
-id = "a"
-name = "A"
-latitude = 54.0
-longitude = 7.0
-elevation_m = 100.0
-land_use = "grass"
-canopy_height_m = 0.1
-wind_height_m = 10.0
-sampler_height_m = 1.5
-utc_offset_h = 0.0
-receptors = ["deciduous_forest"]
-"""
+SITE = ONE_SITE_TOML + 'receptors = ["deciduous_forest"]\n'
 
 
 @pytest.fixture(scope="module")

@@ -56,7 +56,7 @@ from .ledger import CodedRows, Ledger
 from .linechunks import Source, gunzip, line_cells, plain
 from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
-from .table import _OFFSET, SAMPLE_MISSING_TEXTS, YEARS
+from .table import _OFFSET, SAMPLE_MISSING_TEXTS, YEARS, parse_iso
 
 #: Bytes of text parsed at a time (by each thread; see :func:`workbench.threads.map_ordered`).
 CHUNK_BYTES = 8 << 20
@@ -158,7 +158,7 @@ class _TimeTexts:
                 for sel, utc in ((aware, True), (~aware, False)):
                     if not sel.any():
                         continue
-                    tv = metlocate.parse_iso(text[sel], utc)
+                    tv = parse_iso(text[sel], utc)
                     if np.isnat(tv).any() or ((tv < YEARS[0]) | (tv >= YEARS[1])).any():
                         return None
                     parsed[sel] = tv

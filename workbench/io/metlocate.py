@@ -29,7 +29,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import InputError
-from .table import _OFFSET, SAMPLE_MISSING_TEXTS, YEARS, RawTable
+from .table import _OFFSET, SAMPLE_MISSING_TEXTS, YEARS, RawTable, parse_iso
 
 
 class Located:
@@ -58,18 +58,6 @@ class Located:
     def valid(self) -> bool:
         """Every row has a known site and a valid time on the whole hour."""
         return not any(k[0] in ("site", "time", "hour") for k in self.firsts)
-
-
-def parse_iso(text: pd.Series, utc: bool) -> np.ndarray:
-    """ISO 8601 time texts as datetime64[ns]; NaT where a text is no time.
-
-    `utc`: the texts carry an offset (converted to UTC, the zone dropped); else they are
-    naive and returned as written (local standard time, shifted by the caller).
-    """
-    t = pd.to_datetime(text, format="ISO8601", utc=utc, errors="coerce")
-    if utc:
-        t = t.dt.tz_localize(None)
-    return t.to_numpy().astype("datetime64[ns]")
 
 
 def suspicious_rows(chunk, names, used, index, off_ns, label, hour):

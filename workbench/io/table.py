@@ -72,6 +72,18 @@ def _open_text(path: Path) -> str:
                          expected="a UTF-8 CSV file (Latin-1 or Windows-1252? save as UTF-8)") from None
 
 
+def parse_iso(text: pd.Series, utc: bool) -> np.ndarray:
+    """ISO 8601 time texts as datetime64[ns]; NaT where a text is no time.
+
+    `utc`: the texts carry an offset (converted to UTC, the zone dropped); else they are
+    naive and returned as written (local standard time, shifted by the caller).
+    """
+    t = pd.to_datetime(text, format="ISO8601", utc=utc, errors="coerce")
+    if utc:
+        t = t.dt.tz_localize(None)
+    return t.to_numpy().astype("datetime64[ns]")
+
+
 @dataclass
 class RawTable:
     """A CSV file read as text, with its metadata and parsed headers.
@@ -303,19 +315,20 @@ class RawTable:
         self.zoned[name] = aware
         out = np.empty(len(s), dtype="datetime64[ns]")
         if aware.any():
-            t = pd.to_datetime(s[aware], format="ISO8601", utc=True, errors="coerce")
-            self._check_times(s[aware], t, name)
-            out[aware] = t.dt.tz_localize(None).to_numpy()
+            tv = parse_iso(s[aware], utc=True)
+            self._check_times(s[aware], tv, name)
+            out[aware] = tv
         if (~aware).any():
-            t = pd.to_datetime(s[~aware], format="ISO8601", errors="coerce")
-            self._check_times(s[~aware], t, name)
+            tv = parse_iso(s[~aware], utc=False)
+            self._check_times(s[~aware], tv, name)
             off = np.asarray(utc_offset_h, dtype=float)[~aware]
-            out[~aware] = (t.to_numpy() - (off * 3600e9).astype("timedelta64[ns]"))
+            out[~aware] = tv - (off * 3600e9).astype("timedelta64[ns]")
         return out
 
-    def _check_times(self, s, t, name):
-        bad = t.isna().to_numpy()
-        tv = t.to_numpy() if not hasattr(t, "dt") or t.dt.tz is None else t.dt.tz_localize(None).to_numpy()
+    def _check_times(self, s, tv, name):
+        """Raise on the first of `s` whose parsed time `tv` [datetime64] is NaT or out of
+        the years."""
+        bad = np.isnat(tv)
         odd = ~bad & ((tv < YEARS[0]) | (tv >= YEARS[1]))
         if odd.any():
             idx = s.index[np.flatnonzero(odd)[0]]

@@ -100,6 +100,56 @@ def _blank_values(ds, blanks, ion):
     return np.where(np.isfinite(m), m, np.nan)
 
 
+def ion_sums(conc: dict, pH, opt: WetOptions):
+    """Hydrogen, bicarbonate, equivalents and their sums as the ion balance has them.
+
+    Parameters
+    ----------
+    conc : dict of str to ndarray
+        Concentrations of the measured ions [mol m-3] (censored values as treated);
+        those of the balance enter it.
+    pH : ndarray
+    opt : WetOptions
+        ``bicarbonate``, ``co2_mixing_ratio``, ``lab_temperature``.
+
+    Returns
+    -------
+    hyd, hco3 : ndarray
+        Free hydrogen from pH and bicarbonate in equilibrium with CO2 [mol m-3].
+    eqs : dict of str to ndarray
+        Equivalents per ion, H and HCO3 included [ueq/L].
+    cations, anions : ndarray
+        Their sums [ueq/L].
+    """
+    pH = np.asarray(pH, dtype=float)
+    hyd = qa.hydrogen_from_pH(pH)
+    hco3 = (bicarbonate(hyd, opt.co2_mixing_ratio, opt.lab_temperature) if opt.bicarbonate
+            else np.zeros(len(pH)))
+    eqs = {"H": qa.ueq_per_litre(hyd, "H")}
+    eqs.update({i: qa.ueq_per_litre(c, i) for i, c in conc.items()
+                if i in qa.BALANCE_CATIONS + qa.BALANCE_ANIONS and i not in ("H", "HCO3")})
+    eqs["HCO3"] = qa.ueq_per_litre(hco3, "HCO3")
+    cations, anions = qa.ion_sums(eqs)
+    return hyd, hco3, eqs, cations, anions
+
+
+def ion_balance_test(cations, anions, tiers):
+    """The ion balance check of :func:`screen` on cation and anion sums [ueq/L].
+
+    Returns
+    -------
+    idiff : ndarray
+        Ion difference [%].
+    limit : ndarray
+        Allowed |ion difference| of each sample's tier [%].
+    evaluated, fail : ndarray of bool
+    """
+    idiff = qa.ion_difference(cations, anions)
+    limit = qa.tier_limit(cations + anions, tiers)
+    evaluated = np.isfinite(idiff)
+    return idiff, limit, evaluated, evaluated & (np.abs(idiff) > limit)
+
+
 def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Dataset | None = None,
            blanks: xr.Dataset | None = None, flag_table=None) -> xr.Dataset:
     """Screen precipitation samples and decide, per sample, what is used.
@@ -199,18 +249,8 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
     conc = {ion: added[ion][1] for ion in ions}
 
     # --- acidity, bicarbonate, ion balance ----------------------------------------------
-    hyd = qa.hydrogen_from_pH(pH)
-    hco3 = (bicarbonate(hyd, opt.co2_mixing_ratio, opt.lab_temperature) if opt.bicarbonate
-            else np.zeros(n))
-    eqs = {"H": qa.ueq_per_litre(hyd, "H")}
-    eqs.update({i: qa.ueq_per_litre(conc[i], i) for i in ions
-                if i in qa.BALANCE_CATIONS + qa.BALANCE_ANIONS})
-    eqs["HCO3"] = qa.ueq_per_litre(hco3, "HCO3")
-    cations, anions = qa.ion_sums(eqs)
-    idiff = qa.ion_difference(cations, anions)
-    ib_limit = qa.tier_limit(cations + anions, opt.ion_balance_tiers)
-    ib_eval = np.isfinite(idiff)
-    ib_fail = ib_eval & (np.abs(idiff) > ib_limit)
+    hyd, hco3, eqs, cations, anions = ion_sums(conc, pH, opt)
+    idiff, ib_limit, ib_eval, ib_fail = ion_balance_test(cations, anions, opt.ion_balance_tiers)
     reasons.append(("ion_balance", "ion balance outside acceptance", ib_fail,
                     "exclude" if opt.on_ion_balance_fail == "exclude" else "flag"))
     # gross errors: beyond every tier of the ion balance, or an implausible value

@@ -16,7 +16,6 @@ type, as the reader does not know the type), run on the samples as read.
 """
 from __future__ import annotations
 
-import re
 
 import numpy as np
 import pandas as pd
@@ -25,8 +24,8 @@ import xarray as xr
 from .. import flags as _flags
 from ..units import convert_plain, to_amount
 from . import qa
-from .carbonate import bicarbonate
 from .options import WetOptions
+from .screening import _flag_table, ion_balance_test, ion_sums
 
 #: Share of a site's evaluated samples that must fail in one direction, and share of
 #: those that the other unit must bring back into the band (more than half; common
@@ -51,20 +50,16 @@ def _same_unit(a: float) -> bool:
     return abs(a - 1.0) < 1e-6
 
 
-def _flag_ok(samples: xr.Dataset, which: int) -> np.ndarray:
-    """Samples whose flag words leave the chemistry (`which` 1) or the gauge depth
-    (`which` 2) valid; a loop over the few flag codes, not over samples."""
-    n = samples.sizes["sample"]
-    flags = pd.Series(samples["flags"].values.astype(str) if "flags" in samples else [""] * n)
-    bad = np.zeros(n, bool)
-    for code, meaning in _flags.FLAGS.items():
-        if not meaning[which]:
-            bad |= flags.str.contains(rf"(?:^|\s){re.escape(code)}(?:\s|$)").to_numpy()
-    return ~bad
-
-
 def _gauge_ok(samples: xr.Dataset) -> np.ndarray:
-    return _flag_ok(samples, 2)
+    """Samples whose flag codes leave the gauge depth valid (the screening's flag table)."""
+    n = samples.sizes["sample"]
+    codes, _ = _flag_table(samples["flags"].values if "flags" in samples
+                           else np.full(n, "", dtype=object))
+    bad = np.zeros(n, bool)
+    for code, (_, _, gauge_ok) in _flags.FLAGS.items():
+        if not gauge_ok:
+            bad |= codes[code]
+    return ~bad
 
 
 def _ion_balance(samples, options):
@@ -73,26 +68,20 @@ def _ion_balance(samples, options):
     not, as :func:`workbench.wet.screen` evaluates them)."""
     n = samples.sizes["sample"]
     pH = samples["pH"].values.astype(float) if "pH" in samples else np.full(n, np.nan)
-    hyd = qa.hydrogen_from_pH(pH)
-    eqs = {"H": qa.ueq_per_litre(hyd, "H")}
+    conc = {}
     for ion in qa.BALANCE_CATIONS + qa.BALANCE_ANIONS:
         if ion in samples and ion not in ("H", "HCO3"):
             v = samples[ion].values.astype(float)
             cens = samples[f"{ion}_censored"].values.astype(bool)
             lim = samples[f"{ion}_detection_limit"].values.astype(float)
-            eqs[ion] = qa.ueq_per_litre(qa.censored_value(v, cens, lim, options.detection_limit),
-                                        ion)
-    hco3 = (bicarbonate(hyd, options.co2_mixing_ratio, options.lab_temperature)
-            if options.bicarbonate else np.zeros(n))
-    eqs["HCO3"] = qa.ueq_per_litre(hco3, "HCO3")
-    cations, anions = qa.ion_sums(eqs)
+            conc[ion] = qa.censored_value(v, cens, lim, options.detection_limit)
+    _, _, eqs, cations, anions = ion_sums(conc, pH, options)
     return eqs, cations, anions
 
 
 def _ib_fail(cations, anions, options):
-    idiff = qa.ion_difference(cations, anions)
-    limit = qa.tier_limit(cations + anions, options.ion_balance_tiers)
-    return np.isfinite(idiff), np.isfinite(idiff) & (np.abs(idiff) > limit), idiff
+    idiff, _, evaluated, fail = ion_balance_test(cations, anions, options.ion_balance_tiers)
+    return evaluated, fail, idiff
 
 
 def _suspects(sites, evaluated, *directions) -> list:
