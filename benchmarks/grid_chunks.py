@@ -115,7 +115,7 @@ class _ChunkCount:
         def spy(wrapper, key):
             var = wrapper.get_array()
             chunking = var.chunking()
-            if var.ndim == 3 and chunking != "contiguous":
+            if var.ndim == 3 and isinstance(chunking, list):    # not NetCDF3, contiguous
                 n = 1
                 for k, c, size in zip(key, chunking, var.shape):
                     idx = np.arange(size)[k]
@@ -177,15 +177,16 @@ def main(argv=None) -> int:
     p.add_argument("--layout", choices=list(LAYOUTS), default="zarr_day")
     p.add_argument("--block", type=int, default=32)
     p.add_argument("--read-only", action="store_true")
+    p.add_argument("--tag", default="run", help="the run folder is DIR/out_LAYOUT_TAG")
     p.add_argument("--child", action="store_true", help=argparse.SUPPRESS)
     a = p.parse_args(argv)
     if a.make:
         make(a.make, a.n, a.months)
     if a.run and a.child:
-        child(a.run, a.layout, a.block, a.read_only, a.run / f"out_{a.layout}")
+        child(a.run, a.layout, a.block, a.read_only, a.run / f"out_{a.layout}_{a.tag}")
     elif a.run:
         cmd = [sys.executable, __file__, "--run", str(a.run), "--layout", a.layout,
-               "--block", str(a.block), "--child"] + (["--read-only"] if a.read_only else [])
+               "--block", str(a.block), "--tag", a.tag, "--child"] + (["--read-only"] if a.read_only else [])
         r0 = resource.getrusage(resource.RUSAGE_CHILDREN)
         subprocess.run(cmd, check=True)
         r1 = resource.getrusage(resource.RUSAGE_CHILDREN)

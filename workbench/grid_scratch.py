@@ -12,9 +12,10 @@ and memory holds one time chunk of one variable (plus a block), never the field.
 When a variable's chunks already fall inside the blocks (chunks along y and x that the
 blocks' edges follow, e.g. ``{"y": 10, "x": 10}`` with ``--block 10`` or 20), or when
 the file has no chunks (NetCDF3: read in place, nothing to decompress), or when the grid
-is one block, the variable is read directly as before.  Chunks of all time steps that
-cross the blocks' edges are read directly too (copying them would hold the whole
-field); a note names a ``--block`` that follows them.
+is one block, the variable is read directly as before.  Chunks of all time steps and
+part of the plane that cross the blocks' edges are read directly too (copying them
+would hold the whole field); a note names a ``--block`` that follows them.  A variable
+in one chunk is copied (each direct read of a block decompresses it whole anyway).
 
 Why a copy rather than blocks that follow the chunks: a block must hold all time steps
 of its cells (the gap filling of Vd and the period sums run along time), so blocks
@@ -135,8 +136,8 @@ def plan(raw, names, dims, shape, block) -> tuple[list, list]:
         cross = [_crosses(n, b, k) for n, b, k in zip(shape, block, c[1:])]
         if not any(cross):
             continue
-        if c[0] >= n_t:
-            direct.append((name, c))
+        if c[0] >= n_t and tuple(c[1:]) != tuple(shape):
+            direct.append((name, c))     # copying them would hold the whole field
             continue
         copy.append(name)
         nbytes = int(np.prod(c[:1] + tuple(shape))) * raw[name].dtype.itemsize
