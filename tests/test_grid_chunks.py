@@ -312,6 +312,8 @@ def _lazy(chunks, shape=(48, 8, 8)):
     ((48, 4, 4), (4, 4), False, None),                          # the blocks follow them
     ((48, 4, 4), (8, 8), False, None),                          # a block holds four
     ((48, 3, 3), (4, 4), False, "(--block 6 follows them)"),    # all hours, across edges
+    ((48, 2, 3), (4, 4), False, "(--block 6 follows them)"),
+    ((48, 8, 3), (4, 4), False, "(--block 6 follows them)"),    # all of y: x alone
     ((24, 8, 8), (8, 8), False, None),                          # one block
     (None, (4, 4), False, None),                                # no chunks (NetCDF3)
 ])
@@ -321,3 +323,21 @@ def test_plan(chunks, block, copy, note):
     assert (note is None) == (not notes)
     if note:
         assert note in notes[0]
+
+
+def test_worker_processes_read_the_copy(grids, tmp_path):
+    """`workbench grid --workers 2`: the worker processes read the scratch copy made in
+    the run folder; the maps are those of the NetCDF3 grid, and nothing is left."""
+    pytest.importorskip("distributed")
+    from workbench.cli import main
+    for kind, extra in (("nc3", []), ("zarr", ["--workers", "2"])):
+        assert main(["grid", str(grids[kind]), "--out", str(tmp_path / kind), "--quiet",
+                     "--block", "2", *extra]) == 0
+    maps = {}
+    for kind in ("nc3", "zarr"):
+        with xr.open_dataset(tmp_path / kind / "grid.nc", decode_times=False) as ds:
+            maps[kind] = ds.load().drop_attrs()
+    xr.testing.assert_identical(maps["zarr"], maps["nc3"])
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["nc3", "zarr"]
+    assert sorted(p.name for p in (tmp_path / "zarr").iterdir()) == \
+        ["grid.nc", "provenance.json"]

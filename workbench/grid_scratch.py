@@ -30,6 +30,7 @@ from __future__ import annotations
 
 import contextlib
 import dataclasses
+import math
 import os
 import shutil
 import tempfile
@@ -136,7 +137,7 @@ def plan(raw, names, dims, shape, block) -> tuple[list, list]:
         cross = [_crosses(n, b, k) for n, b, k in zip(shape, block, c[1:])]
         if not any(cross):
             continue
-        if c[0] >= n_t and tuple(c[1:]) != tuple(shape):
+        if c[0] >= n_t and not all(k >= n for k, n in zip(c[1:], shape)):
             direct.append((name, c))     # copying them would hold the whole field
             continue
         copy.append(name)
@@ -152,11 +153,11 @@ def plan(raw, names, dims, shape, block) -> tuple[list, list]:
                      "chunk by chunk (each read once) to a block-major scratch file before "
                      "the blocks")
     for name, c in direct:
-        fit = [k * -(-b // k) for b, k in zip(block, c[1:])]
+        step = math.lcm(*[k for k, n in zip(c[1:], shape) if k < n])
+        fit = step * -(-max(block) // step)
         notes.append(f"{name}: chunks of {c[1]} x {c[2]} cells and all time steps cross "
                      f"the edges of blocks of {block[0]} x {block[1]} cells: each is read "
-                     f"by every block it touches (--block {fit[0]}"
-                     + (f" x {fit[1]}" if fit[1] != fit[0] else "") + " follows them)")
+                     f"by every block it touches (--block {fit} follows them)")
     return copy, notes
 
 
@@ -167,10 +168,14 @@ def _reserve(fd, nbytes):
 
 
 def _pwrite(fd, data: bytes, offset: int):
-    """Write all of `data` at `offset`."""
+    """Write all of `data` at `offset` (the file's position moves on Windows)."""
     view = memoryview(data)
     while len(view):
-        n = os.pwrite(fd, view, offset)
+        if hasattr(os, "pwrite"):
+            n = os.pwrite(fd, view, offset)
+        else:                                           # Windows
+            os.lseek(fd, offset, os.SEEK_SET)
+            n = os.write(fd, view)
         view, offset = view[n:], offset + n
 
 
@@ -181,7 +186,8 @@ def _copy_variable(raw, name, dims, layout, n_t, step, path, file):
     var = var.squeeze(extra, drop=True).transpose("time", *dims)
     dt = var.dtype
     n_cells = sum((ys.stop - ys.start) * (xs.stop - xs.start) for ys, xs, _ in layout)
-    fd = os.open(file, os.O_WRONLY | os.O_CREAT | os.O_TRUNC, 0o600)
+    fd = os.open(file, os.O_WRONLY | os.O_CREAT | os.O_TRUNC | getattr(os, "O_BINARY", 0),
+                 0o600)
     try:
         try:
             _reserve(fd, n_cells * n_t * dt.itemsize)
@@ -192,7 +198,7 @@ def _copy_variable(raw, name, dims, layout, n_t, step, path, file):
             piece = read_values(var.isel(time=slice(t0, t1)), path, name,
                                 f" of time steps {t0}-{t1 - 1}")
             for ys, xs, first in layout:
-                part = np.ascontiguousarray(piece[:, ys, xs]).reshape(t1 - t0, -1)
+                part = np.ascontiguousarray(piece[:, ys, xs], dtype=dt).reshape(t1 - t0, -1)
                 offset = (first * n_t + t0 * part.shape[1]) * dt.itemsize
                 try:
                     _pwrite(fd, part.tobytes(), offset)
