@@ -41,7 +41,8 @@ from .units import element_deposition_in
 #: Dry species of the budget with their element (every one holds one atom of it).
 DRY_SPECIES = {c[2]: c[0] for c in COMPONENTS if c[1] == "dry"}
 #: Cells per side of a block when none is given (a 32 x 32 block of a site-year of
-#: hourly met is about 1,000 site-years of engine arrays at once: ~0.5 GB).
+#: hourly met is about 1,000 site-years at once: reading such a block peaked at 4.0 GB
+#: on 2026-12-03, docs/performance.md; a month of hours needs a twelfth of that).
 DEFAULT_BLOCK = 32
 
 
