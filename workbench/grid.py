@@ -15,10 +15,15 @@ site's numbers.
 Blocks are independent: :func:`compute_grid` runs them one after the other in
 process, or as dask tasks (one ``dask.delayed`` task per block, assembled with
 ``dask.array.block``), so that only one block's hourly inputs are in memory per worker.
+Inputs whose chunks span several blocks (chunked along time only) are first copied,
+each chunk read once, into a block-major scratch file (:func:`staged`,
+:mod:`workbench.grid_scratch`).
 Output: CF maps on (time, y, x), one time step per reporting period
 (:mod:`workbench.grid_output`).
 """
 from __future__ import annotations
+
+import contextlib
 
 import numpy as np
 import pandas as pd
@@ -29,13 +34,15 @@ from .budget import COMPONENTS, BudgetOptions
 from .drycomponents import dry_components, dry_rows, prepare_velocities
 from .errors import WorkbenchError
 from .grid_io import Grid, block_catalogue, cell_ids, read_block
+from .grid_scratch import block_major
 from .io.sites import SiteCatalogue
 from .units import element_deposition_in
 
 #: Dry species of the budget with their element (every one holds one atom of it).
 DRY_SPECIES = {c[2]: c[0] for c in COMPONENTS if c[1] == "dry"}
 #: Cells per side of a block when none is given (a 32 x 32 block of a site-year of
-#: hourly met is about 1,000 site-years of engine arrays at once: ~0.5 GB).
+#: hourly met is about 1,000 site-years at once: reading such a block peaked at 4.0 GB
+#: on 2026-12-03, docs/performance.md; a month of hours needs a twelfth of that).
 DEFAULT_BLOCK = 32
 
 
@@ -206,6 +213,24 @@ def blocks(shape, block) -> list:
              for i in range(0, nx, bx)] for j in range(0, ny, by)]
 
 
+def staged(grid: Grid, block=DEFAULT_BLOCK, folder=None, say=None):
+    """``with staged(grid, block) as g:`` the grid whose inputs chunked across the
+    blocks are read from a block-major scratch copy (each chunk decompressed once;
+    :func:`workbench.grid_scratch.block_major`), removed when the ``with`` ends.
+
+    Parameters
+    ----------
+    grid : Grid
+    block : int or (int, int)
+        Cells per block side (y, x), as given to :func:`compute_grid`.
+    folder : path, optional
+        Where the scratch folder is made (default: the system's temporary folder).
+    say : callable, optional
+        Called with each note on the chunks.
+    """
+    return block_major(grid, blocks(grid.shape, block), folder, say)
+
+
 def compute_grid(grid: Grid, dry_options, budget_options, periods, fixed_velocity=None,
                  block=DEFAULT_BLOCK, use_dask=False, progress=None):
     """Every output of every cell, block by block.
@@ -220,8 +245,11 @@ def compute_grid(grid: Grid, dry_options, budget_options, periods, fixed_velocit
     block : int or (int, int)
         Cells per block side (y, x).
     use_dask : bool
-        One dask task per block (lazy result; computed when written or ``.compute()``d);
-        else the blocks run one after the other in process.
+        One dask task per block (lazy result; computed when written or ``.compute()``d:
+        time-chunked inputs are read directly unless `grid` comes from :func:`staged`
+        and the result is computed inside its ``with``); else the blocks run one after
+        the other in process (on a scratch copy of time-chunked inputs made here, unless
+        `grid` has one).
     progress : callable, optional
         Called with a short text after each block (in process only).
 
@@ -246,10 +274,11 @@ def compute_grid(grid: Grid, dry_options, budget_options, periods, fixed_velocit
         return names, arr
     arr = np.full((n_v, n_p) + grid.shape, np.nan)
     done, total = 0, sum(len(r) for r in layout)
-    for row in layout:
-        for ys, xs in row:
-            arr[:, :, ys, xs] = block_result(grid, ys, xs, *args)
-            done += 1
-            if progress:
-                progress(f"block {done}/{total}")
+    with (staged(grid, block) if not grid.scratch else contextlib.nullcontext(grid)) as g:
+        for row in layout:
+            for ys, xs in row:
+                arr[:, :, ys, xs] = block_result(g, ys, xs, *args)
+                done += 1
+                if progress:
+                    progress(f"block {done}/{total}")
     return names, arr

@@ -182,17 +182,18 @@ def write_grid_files(folder, times, met: dict, air_bounds, air: dict, classes, l
     return paths
 
 
-def _base_site(folder: Path):
-    """The base site's met (site, time) and air (period) of the demo month, read with
-    the workbench's own readers from the shipped demo files."""
+def _base_site(folder: Path, months=1):
+    """The base site's met (site, time) and air (period) of `months` demo months from
+    :data:`MONTH`, read with the workbench's own readers from the shipped demo files."""
     from .io import load_inputs
     here = _demo()
-    lo, hi = MONTH, str(np.datetime64(MONTH, "M") + np.timedelta64(1, "M"))
+    lo, hi = MONTH, str(np.datetime64(MONTH, "M") + np.timedelta64(months, "M"))
+    last = str(np.datetime64(MONTH, "M") + np.timedelta64(months - 1, "M"))
     tmp = folder / "_base"
     tmp.mkdir(parents=True, exist_ok=True)
     with gzip.open(here / "met.csv.gz", "rt", encoding="utf-8") as f:
         met = [ln for ln in f if ln.startswith(("#", "site,")) or
-               (ln.startswith(BASE_SITE + ",") and lo <= ln.split(",")[1][:7] <= lo)]
+               (ln.startswith(BASE_SITE + ",") and lo <= ln.split(",")[1][:7] <= last)]
     (tmp / "met.csv").write_text("".join(met), encoding="utf-8")
     air = [ln for ln in (here / "air.csv").read_text(encoding="utf-8").splitlines(True)
            if ln.startswith(("#", "site,")) or (ln.startswith(BASE_SITE + ",")
@@ -205,11 +206,21 @@ def _base_site(folder: Path):
     return inputs.met.sel(site=BASE_SITE), inputs.air
 
 
-def make_demo_grid(folder, n=N_CELLS) -> Path:
-    """Write the demo grid and its scenario into `folder`; returns the scenario path."""
+def make_demo_grid(folder, n=N_CELLS, months=1) -> Path:
+    """Write the demo grid and its scenario into `folder`; returns the scenario path.
+
+    Parameters
+    ----------
+    folder : path
+    n : int
+        Cells per side.
+    months : int
+        Months of hourly met from :data:`MONTH` (the demo has one; a year, 12, makes
+        the large time-chunked grids of benchmarks/grid_chunks.py).
+    """
     folder = Path(folder)
     folder.mkdir(parents=True, exist_ok=True)
-    met, air = _base_site(folder)
+    met, air = _base_site(folder, months)
     rng = np.random.default_rng(20210701)
     j, i = np.meshgrid(np.arange(n), np.arange(n), indexing="ij")
     yy, xx = (j - n / 2 + 0.5) * CELL_M, (i - n / 2 + 0.5) * CELL_M

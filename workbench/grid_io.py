@@ -66,6 +66,17 @@ def _open(path: Path, role: str, notes=None) -> xr.Dataset:
                         expected="a NetCDF file") from None
 
 
+def read_values(var, path, name, where="") -> np.ndarray:
+    """The values of a lazily read variable, or the located error of a damaged chunk."""
+    try:
+        return var.values
+    except Exception as exc:  # codecs and engines raise many error types
+        first = str(exc).strip().splitlines()[0][:160] if str(exc).strip() else ""
+        raise GridError(f"cannot read the values{where} ({type(exc).__name__}: {first})",
+                        file=path, column=name, expected="values the format can decode (the "
+                        "file or store may be damaged or half-copied)") from None
+
+
 def _height(ds, path, name) -> float:
     """The scalar ``height`` coordinate of variable `name` [m] (CF: a size-1 or
     scalar coordinate with standard_name height)."""
@@ -255,6 +266,8 @@ class Grid:
     reference_state: str | None
     template: xr.Dataset = field(repr=False, default=None)
     notes: list = field(default_factory=list)
+    #: role -> block-major copy of time-chunked variables (:mod:`workbench.grid_scratch`).
+    scratch: dict = field(default_factory=dict)
 
     @property
     def shape(self) -> tuple:
@@ -517,17 +530,16 @@ def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue):
     flagged : ndarray of bool, (site, time)
         Met records with a plausibility flag (their implausible values masked).
     """
-    sel = {grid.dims[0]: ys, grid.dims[1]: xs}
     ids = cell_ids(ys, xs)
     keep = np.isin(ids, catalogue.ids)
     kept = ids[keep]
     n_t, n_c = len(grid.times), len(kept)
-    with _open(grid.paths["met"], "met") as raw:
-        values = {}
-        for name, unit in grid.met_units.items():
-            v = _block_values(raw[name].isel(sel), grid.dims)
-            v = v.reshape(n_t, -1)[:, keep].T.reshape(-1).astype(float)   # (cell, time)
-            values[name] = _convert_met(v, unit, name, MET_VARIABLES[name][0], grid.paths["met"])
+
+    def convert(name, v):                                # (time, cell) -> (cell, time)
+        v = v[:, keep].T.reshape(-1).astype(float)
+        return _convert_met(v, grid.met_units[name], name, MET_VARIABLES[name][0],
+                            grid.paths["met"])
+    values = _block_values(grid, "met", grid.met_units, ys, xs, convert)
     sites = np.repeat(kept.astype(object), n_t)
     t = np.tile(grid.times, n_c)
     reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, grid.met_units)
@@ -539,27 +551,37 @@ def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue):
                        {"units": _UNIT_TEXT.get(unit, unit), "long_name": long_name})
     met = xr.Dataset(dvars, coords={"site": kept.tolist(), "time": grid.times})
     met["time"].attrs["long_name"] = "end of the hour (UTC)"
-    return met, _air_block(grid, sel, keep, kept), flagged
+    return met, _air_block(grid, ys, xs, keep, kept), flagged
 
 
-def _block_values(var, dims):
-    """A block's values on (time, y, x), the single-level dims (height) dropped."""
-    extra = [d for d in var.dims if d != "time" and d not in dims]
-    return var.squeeze(extra, drop=True).transpose("time", *dims).values
+def _block_values(grid, role, names, ys, xs, then) -> dict:
+    """name -> ``then(name, values (time, cell))`` for the variables of a block, one at
+    a time: from the block-major scratch copy (:mod:`workbench.grid_scratch`) where it
+    holds them, else read from the input."""
+    copy = grid.scratch.get(role)
+    direct = [n for n in names if copy is None or not copy.has(n, ys, xs)]
+    out = {n: then(n, copy.values(n, ys, xs)) for n in names if n not in direct}
+    if direct:
+        with _open(grid.paths[role], role) as raw:
+            for name in direct:
+                var = raw[name].isel({grid.dims[0]: ys, grid.dims[1]: xs})
+                extra = [d for d in var.dims if d != "time" and d not in grid.dims]
+                var = var.squeeze(extra, drop=True).transpose("time", *grid.dims)
+                v = read_values(var, grid.paths[role], name)
+                out[name] = then(name, v.reshape(v.shape[0], -1))
+    return {n: out[n] for n in names}
 
 
-def _air_block(grid, sel, keep, kept):
+def _air_block(grid, ys, xs, keep, kept):
     n_p, n_c = len(grid.air_start), len(kept)
     ref = parse_reference_state(grid.reference_state) if grid.reference_state else None
-    conc = {}
-    with _open(grid.paths["air"], "air") as raw:
-        for sp, unit in grid.air_units.items():
-            v = _block_values(raw[sp].isel(sel), grid.dims)
-            v = v.reshape(n_p, -1)[:, keep].T.reshape(-1).astype(float)     # (cell, period)
-            amount, kind = to_amount(v, unit, sp)
-            if kind == "amount_density" and ref is not None:
-                amount, kind = amount * GAS_CONSTANT * ref[0] / ref[1], "mixing_ratio"
-            conc[sp] = (np.asarray(amount, float), kind)
+
+    def convert(sp, v):                                  # (period, cell) -> (cell, period)
+        amount, kind = to_amount(v[:, keep].T.reshape(-1).astype(float), grid.air_units[sp], sp)
+        if kind == "amount_density" and ref is not None:
+            amount, kind = amount * GAS_CONSTANT * ref[0] / ref[1], "mixing_ratio"
+        return np.asarray(amount, float), kind
+    conc = _block_values(grid, "air", grid.air_units, ys, xs, convert)
     has = np.zeros(n_c * n_p, bool)
     for v, _ in conc.values():
         has |= np.isfinite(v)

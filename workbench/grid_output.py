@@ -19,7 +19,7 @@ import numpy as np
 import xarray as xr
 
 from . import __version__
-from .grid import DRY_SPECIES, DEFAULT_BLOCK, compute_grid, make_periods
+from .grid import DRY_SPECIES, DEFAULT_BLOCK, compute_grid, make_periods, staged
 from .grid_io import describe, open_grid
 from .landuse import LAND_USE
 from .runfolder import OutputError, RunFolder, os_error_message
@@ -202,25 +202,33 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=DEFAULT_BLO
         p = sc.data["period"]
         periods = make_periods(grid, p["resolution"], p["start"], p["end"])
         o = sc.options
-        names, arr = compute_grid(grid, o["dry"], o["budget"], periods, sc.fixed_velocity,
-                                  block=block, use_dask=use_dask, progress=say)
-        where = ""
-        if client is not None:             # the tasks run on the cluster; maps come back
-            arr = client.compute(arr).result()
-            where = (f" on the dask scheduler at {scheduler}" if scheduler
-                     else f" on a local dask cluster of {workers} workers")
-        prov = provenance(sc, {"scenario": sc.path, **paths}, started)
-        history = (f"{started:%Y-%m-%dT%H:%M:%SZ} workbench grid {sc.path} (deposition "
-                   f"workbench {__version__}; blocks of {block} cells"
-                   f"{' as dask tasks' if use_dask else ''}{where}); inputs: "
-                   + "; ".join(f"{r} {v['path']} sha256 {v['sha256']}"
-                               for r, v in prov["inputs"].items()))
-        ds = grid_dataset(names, arr, grid, periods, history)
-        ds.attrs["workbench_options"] = json.dumps(
-            {k: sc.resolved().get(k) for k in ("dry", "budget", "period", "grid")}, default=str)
-        target = folder.path / GRID_FILE
+        # inputs chunked across the blocks: a block-major scratch copy inside the
+        # (incomplete) run folder, removed before the folder is committed
+        with staged(grid, block, folder.path, say) as grid:
+            names, arr = compute_grid(grid, o["dry"], o["budget"], periods, sc.fixed_velocity,
+                                      block=block, use_dask=use_dask, progress=say)
+            where = ""
+            if client is not None:             # the tasks run on the cluster; maps come back
+                arr = client.compute(arr).result()
+                where = (f" on the dask scheduler at {scheduler}" if scheduler
+                         else f" on a local dask cluster of {workers} workers")
+            prov = provenance(sc, {"scenario": sc.path, **paths}, started)
+            history = (f"{started:%Y-%m-%dT%H:%M:%SZ} workbench grid {sc.path} (deposition "
+                       f"workbench {__version__}; blocks of {block} cells"
+                       f"{' as dask tasks' if use_dask else ''}{where}); inputs: "
+                       + "; ".join(f"{r} {v['path']} sha256 {v['sha256']}"
+                                   for r, v in prov["inputs"].items()))
+            ds = grid_dataset(names, arr, grid, periods, history)
+            ds.attrs["workbench_options"] = json.dumps(
+                {k: sc.resolved().get(k) for k in ("dry", "budget", "period", "grid")},
+                default=str)
+            target = folder.path / GRID_FILE
+            try:
+                write_grid_netcdf(ds, target)
+            except OSError as exc:
+                raise OutputError(os_error_message(exc, target) + "; nothing was written "
+                                  "into the output folder") from exc
         try:
-            write_grid_netcdf(ds, target)
             prov["outputs"] = [GRID_FILE, "provenance.json"]
             prov["notes"] = grid.notes
             (folder.path / "provenance.json").write_text(json.dumps(prov, indent=2, default=str))

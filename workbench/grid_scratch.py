@@ -1,0 +1,278 @@
+"""A block-major scratch copy of gridded inputs whose chunks span several blocks.
+
+A block of cells (:func:`workbench.grid_io.read_block`) reads its cells over all time
+steps.  From a store chunked along time only (the usual layout of model output: a day
+or a month of the whole y/x plane per chunk, in zarr or NetCDF4), that decompresses
+every chunk once per block.  :func:`block_major` instead reads each chunk once, one
+time chunk of the whole plane at a time, and appends each block's part of it to a
+scratch file laid out block by block, (time, cell) within a block; the blocks then read
+their values from there with one contiguous read.  So each chunk is decompressed once
+and memory holds one time chunk of one variable (plus a block), never the field.
+
+When a variable's chunks already fall inside the blocks (chunks along y and x that the
+blocks' edges follow, e.g. ``{"y": 10, "x": 10}`` with ``--block 10`` or 20), or when
+the file has no chunks (NetCDF3: read in place, nothing to decompress), or when the grid
+is one block, the variable is read directly as before.  Chunks of all time steps and
+part of the plane that cross the blocks' edges are read directly too (copying them
+would hold the whole field); a note names a ``--block`` that follows them.  A variable
+in one chunk is copied (each direct read of a block decompresses it whole anyway).
+
+Why a copy rather than blocks that follow the chunks: a block must hold all time steps
+of its cells (the gap filling of Vd and the period sums run along time), so blocks
+cannot follow chunks along time.
+
+The scratch folder is removed when the ``with`` ends, also on an error.  A chunk that
+cannot be decoded is a :class:`~workbench.grid_io.GridError` naming the file, the
+variable and the time steps; a full disk (or any OS error of the copy) an
+:class:`~workbench.runfolder.OutputError` naming the scratch file and its size.
+"""
+from __future__ import annotations
+
+import contextlib
+import dataclasses
+import math
+import os
+import shutil
+import tempfile
+from pathlib import Path
+
+import numpy as np
+
+from .grid_io import GridError, _open, read_values
+from .runfolder import OutputError, os_error_message
+
+#: A chunk larger than this is named in a note: the copy holds one whole [byte].
+LARGE_CHUNK_BYTES = 256 << 20
+ROLES = ("met", "air")
+
+
+@dataclasses.dataclass(frozen=True)
+class Scratch:
+    """The block-major copy of some variables of one gridded input.
+
+    Attributes
+    ----------
+    folder : str
+    n_t : int
+        Time steps (hours of the met, sampling intervals of the air).
+    blocks : dict
+        ``(y0, y1, x0, x1)`` -> first cell of the block in the files (blocks in order).
+    files : dict
+        Variable -> (path, dtype string) of its file: per block, (time, cell) values in
+        the dtype xarray decodes the variable to.
+    """
+
+    folder: str
+    n_t: int
+    blocks: dict
+    files: dict
+
+    def has(self, name, ys: slice, xs: slice) -> bool:
+        """True when the copy holds variable `name` for exactly this block."""
+        return name in self.files and (ys.start, ys.stop, xs.start, xs.stop) in self.blocks
+
+    def values(self, name, ys: slice, xs: slice) -> np.ndarray:
+        """(time, cell) values of a block, cells in (y, x) order as the direct read."""
+        path, dtype = self.files[name]
+        dt = np.dtype(dtype)
+        n_c = (ys.stop - ys.start) * (xs.stop - xs.start)
+        first = self.blocks[(ys.start, ys.stop, xs.start, xs.stop)]
+        try:
+            v = np.fromfile(path, dtype=dt, count=self.n_t * n_c,
+                            offset=first * self.n_t * dt.itemsize)
+        except OSError as exc:
+            raise OutputError(os_error_message(exc, path, "read the scratch copy")) from exc
+        if v.size != self.n_t * n_c:
+            raise OutputError(f"could not read the scratch copy {path}: {v.size} values "
+                              f"where {self.n_t * n_c} were written (was the file removed "
+                              "or truncated during the run?)")
+        return v.reshape(self.n_t, n_c)
+
+
+def chunk_shape(var, dims) -> tuple | None:
+    """(time, y, x) size of a chunk of a lazily opened variable, None for a file
+    without chunks (NetCDF3, contiguous NetCDF4)."""
+    pref = var.encoding.get("preferred_chunks")
+    if not pref:
+        sizes = var.encoding.get("chunksizes")
+        if not sizes:
+            return None
+        pref = dict(zip(var.dims, sizes))
+    return tuple(int(pref.get(d) or var.sizes[d]) for d in ("time",) + tuple(dims))
+
+
+def _crosses(size, block, chunk) -> bool:
+    """True when a chunk of `chunk` cells along a dim of `size` cells spans an edge of
+    blocks of `block` cells."""
+    return any(edge % chunk for edge in range(block, size, block))
+
+
+def plan(raw, names, dims, shape, block) -> tuple[list, list]:
+    """Which variables of an input go through the copy, and the notes.
+
+    Parameters
+    ----------
+    raw : xarray.Dataset
+        The input, opened lazily.
+    names : list of str
+    dims : (str, str)
+    shape : (int, int)
+        Cells along y and x.
+    block : (int, int)
+        Cells of a block along y and x.
+
+    Returns
+    -------
+    copy : list of str
+    notes : list of str
+    """
+    if all(b >= n for b, n in zip(block, shape)):
+        return [], []                                    # one block: read once anyway
+    copy, notes, direct = [], [], []
+    n_t = raw.sizes["time"]
+    for name in names:
+        c = chunk_shape(raw[name], dims)
+        if c is None:
+            continue
+        cross = [_crosses(n, b, k) for n, b, k in zip(shape, block, c[1:])]
+        if not any(cross):
+            continue
+        if c[0] >= n_t and not all(k >= n for k, n in zip(c[1:], shape)):
+            direct.append((name, c))     # copying them would hold the whole field
+            continue
+        copy.append(name)
+        nbytes = int(np.prod(c[:1] + tuple(shape))) * raw[name].dtype.itemsize
+        if nbytes > LARGE_CHUNK_BYTES:
+            notes.append(f"{name}: {c[0]} time steps of the whole grid ({nbytes / 2**20:.0f} "
+                         "MB) held at once by the scratch copy (write chunks of fewer time "
+                         "steps to copy with less memory)")
+    if copy:
+        c = chunk_shape(raw[copy[0]], dims)
+        notes.insert(0, f"chunks of {c[0]} time steps x {c[1]} x {c[2]} cells span several "
+                     f"blocks of {block[0]} x {block[1]} cells ({', '.join(copy)}): copied "
+                     "chunk by chunk (each read once) to a block-major scratch file before "
+                     "the blocks")
+    for name, c in direct:
+        step = math.lcm(*[k for k, n in zip(c[1:], shape) if k < n])
+        fit = step * -(-max(block) // step)
+        notes.append(f"{name}: chunks of {c[1]} x {c[2]} cells and all time steps cross "
+                     f"the edges of blocks of {block[0]} x {block[1]} cells: each is read "
+                     f"by every block it touches (--block {fit} follows them)")
+    return copy, notes
+
+
+def _reserve(fd, nbytes):
+    """Reserve the file's space on disk, so that a full disk fails here, located."""
+    if hasattr(os, "posix_fallocate") and nbytes:
+        os.posix_fallocate(fd, 0, nbytes)
+
+
+def _pwrite(fd, data: bytes, offset: int):
+    """Write all of `data` at `offset` (the file's position moves on Windows)."""
+    view = memoryview(data)
+    while len(view):
+        if hasattr(os, "pwrite"):
+            n = os.pwrite(fd, view, offset)
+        else:                                           # Windows
+            os.lseek(fd, offset, os.SEEK_SET)
+            n = os.write(fd, view)
+        view, offset = view[n:], offset + n
+
+
+def _copy_variable(raw, name, dims, layout, n_t, step, path, file):
+    """Copy one variable, `step` time steps at a time, into `file` (block-major)."""
+    var = raw[name]
+    extra = [d for d in var.dims if d != "time" and d not in dims]
+    var = var.squeeze(extra, drop=True).transpose("time", *dims)
+    dt = var.dtype
+    n_cells = sum((ys.stop - ys.start) * (xs.stop - xs.start) for ys, xs, _ in layout)
+    fd = os.open(file, os.O_WRONLY | os.O_CREAT | os.O_TRUNC | getattr(os, "O_BINARY", 0),
+                 0o600)
+    try:
+        try:
+            _reserve(fd, n_cells * n_t * dt.itemsize)
+        except OSError as exc:
+            raise _disk_error(exc, file, n_cells * n_t * dt.itemsize) from exc
+        for t0 in range(0, n_t, step):
+            t1 = min(t0 + step, n_t)
+            piece = read_values(var.isel(time=slice(t0, t1)), path, name,
+                                f" of time steps {t0}-{t1 - 1}")
+            for ys, xs, first in layout:
+                part = np.ascontiguousarray(piece[:, ys, xs], dtype=dt).reshape(t1 - t0, -1)
+                offset = (first * n_t + t0 * part.shape[1]) * dt.itemsize
+                try:
+                    _pwrite(fd, part.tobytes(), offset)
+                except OSError as exc:
+                    raise _disk_error(exc, file, n_cells * n_t * dt.itemsize) from exc
+            del piece
+    finally:
+        os.close(fd)
+    return str(file), dt.str
+
+
+def _disk_error(exc, file, nbytes) -> OutputError:
+    return OutputError(os_error_message(exc, file, "write the scratch copy")
+                       + f" (the block-major copy of a time-chunked input, "
+                       f"{nbytes / 2**20:.0f} MB a variable; it is removed at the end)")
+
+
+@contextlib.contextmanager
+def block_major(grid, layout, folder=None, say=None):
+    """The grid with a block-major scratch copy of its time-chunked inputs.
+
+    Parameters
+    ----------
+    grid : Grid
+        From :func:`workbench.grid_io.open_grid`.
+    layout : list of list of (slice, slice)
+        The blocks (:func:`workbench.grid.blocks`).
+    folder : path, optional
+        Where the scratch folder is made (default: the system's temporary folder).
+    say : callable, optional
+        Called with each note.
+
+    Yields
+    ------
+    Grid
+        A copy of `grid` whose ``scratch`` holds the copies (`grid` itself if nothing
+        is copied); the scratch folder is removed when the ``with`` ends.
+    """
+    flat, first = [], 0
+    for row in layout:
+        for ys, xs in row:
+            flat.append((ys, xs, first))
+            first += (ys.stop - ys.start) * (xs.stop - xs.start)
+    ys0, xs0 = layout[0][0]
+    block = (ys0.stop - ys0.start, xs0.stop - xs0.start)
+    names = {"met": list(grid.met_units), "air": list(grid.air_units)}
+    scratch, notes, made = {}, [], None
+    try:
+        for role in ROLES:
+            path = grid.paths[role]
+            with _open(path, role) as raw:
+                copy, more = plan(raw, names[role], grid.dims, grid.shape, block)
+                notes.extend(f"{path.name}: {n}" for n in more)
+                for n in more:
+                    if say:
+                        say(f"note: {path.name}: {n}")
+                if not copy:
+                    continue
+                if made is None:
+                    made = Path(tempfile.mkdtemp(prefix="workbench-gridcopy-", dir=folder))
+                n_t = raw.sizes["time"]
+                files = {}
+                for name in copy:
+                    step = chunk_shape(raw[name], grid.dims)[0]
+                    files[name] = _copy_variable(raw, name, grid.dims, flat, n_t, step, path,
+                                                 made / f"{role}.{name}.bin")
+                scratch[role] = Scratch(str(made), n_t, {(ys.start, ys.stop, xs.start,
+                                                          xs.stop): f for ys, xs, f in flat},
+                                        files)
+        yield dataclasses.replace(grid, scratch={**grid.scratch, **scratch},
+                                  notes=grid.notes + notes) if (scratch or notes) else grid
+    finally:
+        if made is not None:
+            shutil.rmtree(made, ignore_errors=True)
+
+
+__all__ = ["Scratch", "block_major", "chunk_shape", "plan", "GridError"]
