@@ -466,3 +466,24 @@ def test_grid_workers_without_distributed_names_the_extra(site, tmp_path, monkey
     with pytest.raises(SystemExit):                   # in process and on workers: one only
         build_parser().parse_args(["grid", str(sc), "--out", "o", "--in-process",
                                    "--workers", "2"])
+
+
+def test_default_block_follows_the_record_length(grid):
+    """Without a block side, a block holds about 100 cell-years of hours (a 32-cell block
+    of a year of hours peaked at 4.0 GB, docs/performance.md): 32 cells for a month, 10
+    for a year, never below 4; the demo month gets the side it always had."""
+    from workbench.grid import BLOCK_CELL_HOURS, default_block
+    assert default_block(744) == 32
+    assert default_block(8760) == 10
+    assert default_block(10 * 8760) == 4
+    assert default_block(0) == 32
+    for hours in (744, 2000, 8760, 30000):
+        side = default_block(hours)
+        if 4 < side < 32:
+            assert side ** 2 * hours <= BLOCK_CELL_HOURS < (side + 1) ** 2 * hours
+    periods = make_periods(grid, "month")
+    side = default_block(len(grid.times))
+    names, auto = compute_grid(grid, DryOptions(), BudgetOptions(), periods)
+    names2, given = compute_grid(grid, DryOptions(), BudgetOptions(), periods, block=side)
+    assert names == names2
+    np.testing.assert_array_equal(auto, given)

@@ -278,8 +278,10 @@ def build_parser() -> argparse.ArgumentParser:
     gr.add_argument("--overwrite", action="store_true",
                     help="replace a non-empty output folder whole")
     gr.add_argument("--quiet", action="store_true", help="no progress messages")
-    gr.add_argument("--block", type=_positive, default=32, metavar="N",
-                    help="cells per side of a block (one dask task each; default 32)")
+    gr.add_argument("--block", type=_positive, default=None, metavar="N",
+                    help="cells per side of a block (one dask task each; default: about "
+                    "100 cell-years of hours a block, 32 for a month of hours, 10 for a "
+                    "year, at least 4)")
     where = gr.add_mutually_exclusive_group()
     where.add_argument("--in-process", action="store_true", help="run the blocks one after "
                        "the other without dask (the default when dask is not installed)")

@@ -40,10 +40,34 @@ from .units import element_deposition_in
 
 #: Dry species of the budget with their element (every one holds one atom of it).
 DRY_SPECIES = {c[2]: c[0] for c in COMPONENTS if c[1] == "dry"}
-#: Cells per side of a block when none is given (a 32 x 32 block of a site-year of
-#: hourly met is about 1,000 site-years at once: reading such a block peaked at 4.0 GB
-#: on 2026-12-03, docs/performance.md; a month of hours needs a twelfth of that).
+#: Cell-hours of hourly inputs a block holds when no block side is given [-]: 100
+#: cell-years.  A block's reading and checks grow with its cell-hours: a 32 x 32 block
+#: of a year of hours (9.0 M cell-hours, about 1,000 site-years at once) peaked at
+#: 4.0 GB, a 10 x 10 one (0.88 M) kept a year-long 60 x 60 run under 1 GB
+#: (2026-12-03, docs/performance.md).
+BLOCK_CELL_HOURS = 876_000
+#: Cells per side of a block when none is given, at most [-] (a month of hours).
 DEFAULT_BLOCK = 32
+#: ... and at least [-] (a decade of hours: 4 x 4 cells).
+MIN_DEFAULT_BLOCK = 4
+
+
+def default_block(n_hours: int) -> int:
+    """Cells per side of a block when none is given [-]: about
+    :data:`BLOCK_CELL_HOURS` cell-hours a block, between :data:`MIN_DEFAULT_BLOCK` and
+    :data:`DEFAULT_BLOCK` cells, so that a block's memory does not grow with the length
+    of the record.
+
+    Parameters
+    ----------
+    n_hours : int
+        Hours of the met [-].
+
+    >>> default_block(744), default_block(8760), default_block(87600)
+    (32, 10, 4)
+    """
+    side = int(np.sqrt(BLOCK_CELL_HOURS / max(int(n_hours), 1)))
+    return max(MIN_DEFAULT_BLOCK, min(DEFAULT_BLOCK, side))
 
 
 class GridRunError(WorkbenchError):
@@ -213,7 +237,7 @@ def blocks(shape, block) -> list:
              for i in range(0, nx, bx)] for j in range(0, ny, by)]
 
 
-def staged(grid: Grid, block=DEFAULT_BLOCK, folder=None, say=None):
+def staged(grid: Grid, block=None, folder=None, say=None):
     """``with staged(grid, block) as g:`` the grid whose inputs chunked across the
     blocks are read from a block-major scratch copy (each chunk decompressed once;
     :func:`workbench.grid_scratch.block_major`), removed when the ``with`` ends.
@@ -221,18 +245,20 @@ def staged(grid: Grid, block=DEFAULT_BLOCK, folder=None, say=None):
     Parameters
     ----------
     grid : Grid
-    block : int or (int, int)
-        Cells per block side (y, x), as given to :func:`compute_grid`.
+    block : int or (int, int), optional
+        Cells per block side (y, x), as given to :func:`compute_grid` (default
+        :func:`default_block` of the grid's hours).
     folder : path, optional
         Where the scratch folder is made (default: the system's temporary folder).
     say : callable, optional
         Called with each note on the chunks.
     """
+    block = default_block(len(grid.times)) if block is None else block
     return block_major(grid, blocks(grid.shape, block), folder, say)
 
 
 def compute_grid(grid: Grid, dry_options, budget_options, periods, fixed_velocity=None,
-                 block=DEFAULT_BLOCK, use_dask=False, progress=None):
+                 block=None, use_dask=False, progress=None):
     """Every output of every cell, block by block.
 
     Parameters
@@ -242,8 +268,8 @@ def compute_grid(grid: Grid, dry_options, budget_options, periods, fixed_velocit
     dry_options, budget_options : DryOptions, BudgetOptions
     periods : pandas.DataFrame
     fixed_velocity : dict, optional
-    block : int or (int, int)
-        Cells per block side (y, x).
+    block : int or (int, int), optional
+        Cells per block side (y, x) (default :func:`default_block` of the grid's hours).
     use_dask : bool
         One dask task per block (lazy result; computed when written or ``.compute()``d:
         time-chunked inputs are read directly unless `grid` comes from :func:`staged`
@@ -261,6 +287,7 @@ def compute_grid(grid: Grid, dry_options, budget_options, periods, fixed_velocit
     _check_options(dry_options)
     names = output_names(grid.species)
     n_v, n_p = len(names), len(periods)
+    block = default_block(len(grid.times)) if block is None else block
     layout = blocks(grid.shape, block)
     args = (dry_options, budget_options, periods, fixed_velocity)
     if use_dask:

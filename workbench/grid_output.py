@@ -19,7 +19,7 @@ import numpy as np
 import xarray as xr
 
 from . import __version__
-from .grid import DRY_SPECIES, DEFAULT_BLOCK, compute_grid, make_periods, staged
+from .grid import DRY_SPECIES, compute_grid, default_block, make_periods, staged
 from .grid_io import describe, open_grid
 from .landuse import LAND_USE
 from .runfolder import OutputError, RunFolder, os_error_message
@@ -157,7 +157,7 @@ def _cluster(workers=None, scheduler=None):
             cluster.close()
 
 
-def run_grid(scenario_path, out, overwrite=False, quiet=False, block=DEFAULT_BLOCK,
+def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
              use_dask=None, workers=None, scheduler=None) -> dict:
     """Compute a scenario's ``[grid]`` and write the run folder (grid.nc, provenance.json).
 
@@ -197,6 +197,8 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=DEFAULT_BLO
             _cluster(workers, scheduler) as client:
         grid = open_grid(paths["met"], paths["air"], paths["land_use"])
         say(describe(grid))
+        if block is None:          # a block's memory: about the same for any record length
+            block = default_block(len(grid.times))
         for note in grid.notes:
             say(f"note: {note}")
         p = sc.data["period"]
