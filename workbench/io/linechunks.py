@@ -4,10 +4,15 @@
 zlib, which releases the interpreter lock while it works (the parsing threads of
 :mod:`workbench.io.metfast` run meanwhile); :class:`Source` gives the first lines one
 by one (the head of the file) and then the rest in chunks of whole lines.
+:func:`normalise` turns a chunk of a spreadsheet export (CRLF line ends, every cell in
+quotes, blanks around the cells) into the plain text of the cells as the line-by-line
+reader (:class:`~workbench.io.table.RawTable`) sees them.
 """
 from __future__ import annotations
 
 import zlib
+
+import numpy as np
 
 #: Compressed bytes read and text bytes returned per call of zlib [byte].
 _GZ_READ, _GZ_OUT = 1 << 20, 4 << 20
@@ -98,7 +103,8 @@ class Source:
 
 
 def line_cells(path, names, line, chunk_bytes=8 << 20):
-    """The cells of file line `line` (1-based), read again from the file [-]."""
+    """The cells of file line `line` (1-based), read again from the file, as the line
+    reader sees them (:func:`normalise`) [-]."""
     with open(path, "rb") as f:
         gz = path.suffix == ".gz" or f.read(2) == b"\x1f\x8b"
         f.seek(0)
@@ -106,7 +112,107 @@ def line_cells(path, names, line, chunk_bytes=8 << 20):
         for chunk in Source(gunzip(f) if gz else plain(f)).chunks(chunk_bytes):
             k = chunk.count(b"\n") + (not chunk.endswith(b"\n"))
             if seen + k >= line:
-                text = chunk.split(b"\n")[line - seen - 1].decode("utf-8")
+                raw = chunk.split(b"\n")[line - seen - 1] + b"\n"
+                text = normalise(raw)
+                text = (raw if text is None else text).rstrip(b"\r\n").decode("utf-8")
                 return dict(zip(names, text.split(",")))
             seen += k
     return {}
+
+
+#: Bytes that are line breaks for the line reader (``str.splitlines``) or blanks that
+#: ``str.strip`` removes, other than the newline, the CRLF pair, the space and the tab:
+#: a chunk holding one goes to the line reader.
+ODD_BYTES = (b"\v", b"\f", b"\x1c", b"\x1d", b"\x1e", b"\x1f")
+_COMMA, _NL, _QUOTE, _SPACE, _TAB = 44, 10, 34, 32, 9
+
+
+def normalise(chunk):
+    """The cells of a chunk of whole lines as the line reader reads them: CRLF line ends
+    as LF, the blanks around each cell removed (``str.strip``), and the quotes removed
+    where a pair of them encloses a whole cell (blanks aside) that holds no comma, quote
+    or line break.
+
+    Parameters
+    ----------
+    chunk : bytes
+        Whole lines of ASCII text.
+
+    Returns
+    -------
+    bytes or None
+        The chunk itself when it has no quote, blank or CR (most files: no copy); None
+        for a chunk only the line reader may judge: a lone CR, a byte of
+        :data:`ODD_BYTES`, a quote not enclosing a whole cell (a comma or a doubled quote
+        inside, text beside it), a tab before an opening quote (the line reader keeps
+        it and the quotes as text: only spaces are skipped before a quote,
+        ``skipinitialspace``), or a line of blanks only.
+
+    Notes
+    -----
+    The line reader (pandas ``read_csv`` with ``skipinitialspace=True``, then
+    ``str.strip`` of every cell) gives ``3.2`` for each of ``3.2``, `` 3.2 ``,
+    ``"3.2"``, `` "3.2" `` and ``" 3.2 "``; the blanks inside a cell (``2021-01-01
+    00:00``) stay.  Blanks are found as runs: a run touching a comma, a line end, a
+    quote or the end of the chunk is around a cell (removed), any other run is inside
+    one (kept).  After the runs are removed, the quotes must come in pairs, each
+    opening right after a comma or a line start and closing right before a comma or a
+    line end with no comma or line break between them; then every quote is removed.
+    """
+    if any(b in chunk for b in ODD_BYTES):
+        return None
+    if b"\r" in chunk:
+        if chunk.count(b"\r") != chunk.count(b"\r\n"):
+            return None                  # a lone CR is a line break to the line reader
+        chunk = chunk.replace(b"\r\n", b"\n")
+    blanks = b" " in chunk or b"\t" in chunk
+    if not blanks and b'"' not in chunk:
+        return chunk
+    text = np.frombuffer(chunk, np.uint8)
+    if blanks:
+        text = _strip_runs(text)
+        if text is None:
+            return None
+    q = np.flatnonzero(text == _QUOTE)
+    if len(q):
+        if len(q) % 2:
+            return None
+        opens, closes = q[0::2], q[1::2]
+        before = np.where(opens > 0, text[np.maximum(opens - 1, 0)], _NL)
+        after = np.where(closes < len(text) - 1, text[np.minimum(closes + 1, len(text) - 1)],
+                         _NL)
+        if not (np.isin(before, (_COMMA, _NL)).all() and np.isin(after, (_COMMA, _NL)).all()):
+            return None
+        breaks = np.flatnonzero((text == _COMMA) | (text == _NL))
+        if (np.searchsorted(breaks, opens) != np.searchsorted(breaks, closes)).any():
+            return None                  # a comma or a line break inside the quotes
+        keep = np.ones(len(text), bool)
+        keep[q] = False
+        text = text[keep]
+    return text.tobytes()
+
+
+def _strip_runs(text):
+    """`text` without the runs of blanks around its cells; None for a line of blanks
+    only or a tab before an opening quote."""
+    at = np.flatnonzero((text == _SPACE) | (text == _TAB))
+    cut = np.flatnonzero(np.diff(at) != 1) + 1
+    starts, ends = at[np.concatenate([[0], cut])], at[np.concatenate([cut - 1, [len(at) - 1]])]
+    left = np.where(starts > 0, text[np.maximum(starts - 1, 0)], _NL)
+    right = np.where(ends < len(text) - 1, text[np.minimum(ends + 1, len(text) - 1)], _NL)
+    edge = (_COMMA, _NL, _QUOTE)
+    outer_l, outer_r = np.isin(left, edge), np.isin(right, edge)
+    if ((left == _NL) & (right == _NL)).any():
+        return None                      # a line of blanks only
+    opening = (right == _QUOTE) & np.isin(left, (_COMMA, _NL))
+    if opening.any():
+        tabs = np.add.reduceat(text[at] == _TAB, np.concatenate([[0], cut]))
+        if (opening & (tabs > 0)).any():
+            return None                  # a tab before an opening quote: kept as text
+    drop = outer_l | outer_r
+    if not drop.any():
+        return text
+    keep = np.ones(len(text), bool)
+    run = np.repeat(drop, ends - starts + 1)
+    keep[at[run]] = False
+    return text[keep]

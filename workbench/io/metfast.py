@@ -53,7 +53,7 @@ from ..units import parse_header
 from . import metchecks, metlocate
 from .common import join_reasons, release_free_memory
 from .ledger import CodedRows, Ledger
-from .linechunks import Source, gunzip, line_cells, plain
+from .linechunks import Source, gunzip, line_cells, normalise, plain
 from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
 from .table import _OFFSET, SAMPLE_MISSING_TEXTS, YEARS, parse_iso
@@ -70,9 +70,8 @@ _ANY_CASE = [""] + sorted({"".join(c) for t in SAMPLE_MISSING_TEXTS if t
                            for c in itertools.product(*({ch.lower(), ch.upper()} for ch in t))})
 #: What :func:`_checked` returns for a repeated hour (located by :mod:`.metlocate`).
 _REPEAT = object()
-#: Blanks other than the newline (what ``\s`` matches in bytes), found by a substring
-#: search each (a regular expression over 32 MB chunks cost 10 s at 1,000 site-years).
-_BLANKS = (b" ", b"\t", b"\r", b"\f", b"\v")
+#: No rows: what a chunk of blank lines only holds, and the blank lines of most chunks.
+_NONE = np.empty(0, np.int64)
 #: Cells the C parser reads as a number but the line reader refuses ("True" is 1.0 there).
 #: The parser does so only for a column of the chunk whose every cell is such a word or
 #: missing (a word beside a number is an error), so the text is searched only when a
@@ -82,34 +81,54 @@ _WORDS = re.compile(rb"(?:^|,)(?:[Tt]rue|TRUE|[Ff]alse|FALSE)(?=,|\n|$)", re.MUL
 
 
 def _head(stream):
-    """(meta, number of lines above the header, header text) or None."""
-    lines = []
+    """(meta, number of lines above the header, header text) or None, by the rules of
+    :meth:`~workbench.io.table.RawTable.read`: ``#`` lines (``key: value`` read as
+    metadata), a blank line after them when each held a key, then blank lines; CRLF
+    line ends and a UTF-8 byte-order mark as there.  None for what only the line reader
+    may judge (another line break inside a line, a ``#`` line taken for the header)."""
+    meta, n_meta, in_meta = {}, 0, True
     while True:
         raw = stream.readline(1 << 16)
         if not raw:
             return None
         try:
-            ln = raw.decode("utf-8-sig" if not lines else "utf-8")
+            ln = raw.decode("utf-8" if n_meta else "utf-8-sig")
         except UnicodeDecodeError:
             return None
         if not ln.endswith("\n"):
             return None
-        ln = ln[:-1]
+        ln = ln[:-2] if ln.endswith("\r\n") else ln[:-1]
+        if ln.splitlines() not in ([ln], []):
+            return None          # a lone CR (...) inside: more lines to the line reader
         s = ln.strip()
-        if s.startswith("#"):
-            lines.append(ln)
+        if in_meta and s.startswith("#"):
+            n_meta += 1
+            body = s.lstrip("#").strip()
+            if ":" in body:
+                key, val = body.split(":", 1)
+                meta[key.strip().lower()] = val.strip()
             continue
-        if s == "" or ln != s:
-            return None          # blank lines and indented headers: the line reader
-        break
-    meta = {}
-    for m in lines:
-        body = m.strip().lstrip("#").strip()
-        if ":" not in body:
+        if in_meta and s == "" and n_meta == len(meta) and n_meta:
+            n_meta += 1
+            continue
+        in_meta = False
+        if s == "":
+            n_meta += 1          # blank lines above the header
+            continue
+        if s.startswith("#"):
             return None
-        key, val = body.split(":", 1)
-        meta[key.strip().lower()] = val.strip()
-    return meta, len(lines), ln
+        return meta, n_meta, ln
+
+
+def _header_cells(header):
+    """The column names of the header line as the line reader's parser names them
+    (quotes removed, spaces before a cell skipped, ``Unnamed: k`` for an empty one);
+    None for a header with a quote left open."""
+    if header.count('"') % 2:
+        return None
+    cols = pd.read_csv(io.StringIO(header + "\n"), dtype=str, keep_default_na=False,
+                       skip_blank_lines=False, skipinitialspace=True, index_col=False).columns
+    return [str(c) for c in cols]
 
 
 class _Rows:
@@ -229,11 +248,10 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
     if head is None:
         return None
     meta, n_meta, header = head
-    if header.count(";") > header.count(",") or header.count("\t") > header.count(",") \
-            or '"' in header:
+    if header.count(";") > header.count(",") or header.count("\t") > header.count(","):
         return None
-    cells = header.split(",")
-    if any(c != c.strip() or not c for c in cells):
+    cells = _header_cells(header)
+    if cells is None:
         return None
     names = [parse_header(c).name for c in cells]
     if len(set(names)) != len(names):
@@ -261,27 +279,30 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
     ids = np.array(list(catalogue.ids), dtype=object)
     parser = _ChunkParser(names, used, units, catalogue, ids, hour, label, convert, variables)
     with tempfile.TemporaryDirectory(prefix="workbench-metrows-") as tmp:
-        rows = _Spill(Path(tmp), used[2:], len(ids))
+        rows = _Spill(Path(tmp), used[2:], len(ids), n_meta + 2)
         try:
-            ok, firsts = _parse(stream, rows, parser, chunk_bytes, size_hint, n_meta + 2)
+            ok, firsts = _parse(stream, rows, parser, chunk_bytes, size_hint)
         finally:
             rows.close()
         release_free_memory()     # what the parsing threads freed stays in their arenas
         if not ok:
             return None
+        if ("fields",) in firsts:    # the line reader's parser refuses the file first
+            raise InputError("malformed CSV row (wrong number of fields)", file=path,
+                             line=firsts[("fields",)][0],
+                             expected=f"{len(names)} fields as in the header")
         got = None
         zones = None
         if not any(k[0] in ("site", "time") for k in firsts):   # else raised before
             zones = rows.zones.first_break()
-            zones = None if zones is None else (zones[0] + n_meta + 2, zones[1] + n_meta + 2)
+            zones = None if zones is None else tuple(int(x) for x in rows.line_of(zones))
         if not firsts and zones is None:
-            got = _checked(rows, n_meta + 2, path, catalogue, ids, units, raw_headers,
-                           variables, hour)
+            got = _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour)
             if got is not _REPEAT:
                 return got
         before = any(k[0] in ("site", "time", "hour") for k in firsts)   # checked first
         before = before or zones is not None
-        repeat = None if before else metlocate.first_repeat(rows, n_meta + 2, CHECK_ROWS)
+        repeat = None if before else metlocate.first_repeat(rows, rows.line_of, CHECK_ROWS)
         metlocate.raise_first(path, meta, heads, raw_headers, firsts, catalogue, label, hour,
                               repeat, lambda line: line_cells(path, names, line, CHUNK_BYTES),
                               zones)
@@ -291,10 +312,15 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
 class _Spill:
     """The parsed rows of a file: site codes in memory (4 bytes a row), times and values
     appended to scratch files, with what the grid needs (span of the hours with a value,
-    the sites with a value, whether each site's rows are consecutive)."""
+    the sites with a value, whether each site's rows are consecutive), and the blank
+    lines between the rows (dropped, as the line reader drops them; their lines are
+    skipped in the rows' line numbers, :meth:`line_of`)."""
 
-    def __init__(self, folder, names, n_sites):
+    def __init__(self, folder, names, n_sites, first_line):
         self.folder, self.names = folder, list(names)
+        self.first_line = first_line
+        self._blanks = [_NONE]
+        self._blank_at = _NONE
         self.files = {n: open(folder / f"{n}.bin", "wb") for n in ["time"] + self.names}
         self.site = None
         self.n = 0
@@ -309,13 +335,37 @@ class _Spill:
         #: column -> {missing-value text: [count, first (at most 5) rows of the file]}
         self.missing = {}
 
+    def add_blanks(self, before):
+        """Blank lines, each given by the number of rows of the file above it."""
+        self._blanks.append(np.asarray(before, np.int64))
+
+    def line_of(self, rows):
+        """File lines (1-based) of rows of the file (0-based, the blank lines not
+        counted) [-]."""
+        if len(self._blanks) > 1:
+            self._blank_at = np.concatenate(self._blanks)
+            self._blanks = [self._blank_at]
+        rows = np.asarray(rows, np.int64)
+        if not len(self._blank_at):
+            return rows + self.first_line
+        return rows + self.first_line + np.searchsorted(self._blank_at, rows, side="right")
+
+    def all_lines(self):
+        """The file line of every row (int32 when they fit) [-]."""
+        last = int(self.line_of([max(self.n - 1, 0)])[0])
+        dtype = np.int32 if last < 2**31 else np.int64
+        if not len(self._blank_at):
+            return np.arange(self.first_line, self.first_line + self.n, dtype=dtype)
+        return self.line_of(np.arange(self.n)).astype(dtype)
+
     def count_missing(self, found, row0):
-        """Count the missing-value texts of a chunk starting at file row `row0`."""
+        """Count the missing-value texts of a chunk starting at file row `row0` (their
+        first five file lines kept)."""
         for name, texts in found.items():
             for text, at in texts.items():
                 e = self.missing.setdefault(name, {}).setdefault(text, [0, []])
                 e[0] += len(at)
-                e[1].extend((row0 + at[:max(5 - len(e[1]), 0)]).tolist())
+                e[1].extend(self.line_of(row0 + at[:max(5 - len(e[1]), 0)]).tolist())
 
     def add(self, site, t, values, capacity):
         if self.site is None:
@@ -385,8 +435,12 @@ class _Spill:
 
 class _ChunkParser:
     """Parse one chunk of whole data lines (called on several threads at once): the
-    rows' site codes, end-of-hour times [ns] (UTC) and converted values, or None for a
-    chunk only the line reader may judge."""
+    chunk's blank lines (each as the number of its rows above it), its number of rows,
+    and the rows' site codes, end-of-hour times [ns] (UTC) and converted values (None
+    when it holds no row); None for a chunk only the line reader may judge.
+
+    A chunk is first made plain (:func:`~.linechunks.normalise`: CRLF, quotes, blanks
+    around the cells), then its blank lines (empty, or commas only) are dropped."""
 
     def __init__(self, names, used, units, catalogue, ids, hour, label, convert, variables):
         self.names, self.used, self.units = names, used, units
@@ -398,16 +452,25 @@ class _ChunkParser:
         self.times = _TimeTexts()
 
     def __call__(self, chunk):
-        if not chunk.isascii() or any(b in chunk for b in _BLANKS):
+        n_bytes = len(chunk)
+        if not chunk.isascii():
             return None
-        text = np.frombuffer(chunk, np.uint8)         # numpy: no interpreter lock held
-        ends = np.flatnonzero(text == 10)
-        n = len(ends) + (not chunk.endswith(b"\n"))
-        if ((len(ends) and (ends[0] == 0 or (np.diff(ends) == 1).any()))   # a blank line
-                or np.count_nonzero(text == 34)                            # a quote
-                or np.count_nonzero(text == 44) != n * (len(self.names) - 1)):
+        chunk = normalise(chunk)                      # numpy: no interpreter lock held
+        if chunk is None:
             return None
-        del text, ends
+        got = _lines(chunk, len(self.names))
+        if got is None:
+            return None
+        chunk, blanks, n, long = got
+        if long is not None:                          # the line reader's parser refuses it
+            return blanks, n, metlocate.Located(None, None, {("fields",): (long, {})}, n,
+                                                n_bytes, None)
+        if not n:
+            return blanks, 0, None
+        got = self._rows(chunk, n, n_bytes)
+        return None if got is None else (blanks, n, got)
+
+    def _rows(self, chunk, n, n_bytes):
         found = None     # texts read as missing: column -> {text: rows of the chunk}
         try:             # low_memory=False: one pass over the chunk, no pieces to join
             df = self._frame(chunk, [""])
@@ -451,7 +514,7 @@ class _ChunkParser:
             got[name] = self.convert(v, self.units[name], name, self.variables[name][0])
         if words and _WORDS.search(chunk):
             return self._locate(chunk)
-        return site_idx, t, got, n, len(chunk), zoned, found
+        return site_idx, t, got, n, n_bytes, zoned, found
 
     def _frame(self, chunk, na):
         return pd.read_csv(io.BytesIO(chunk), header=None, names=self.names,
@@ -479,12 +542,43 @@ class _ChunkParser:
                                          self.label, self.hour)
 
 
-def _parse(source, rows, parser, chunk_bytes, size_hint, first_line):
+def _lines(chunk, n_fields):
+    """The rows of a plain chunk: (chunk without its blank lines, the blank lines (each
+    as the number of rows above it), rows, the row of the first line with more fields
+    than the header or None); None for a line with fewer (the line reader's parser fills
+    it up: its rules).  A blank line is empty or holds commas only, the header's number
+    of fields (the line reader drops the rows whose cells are all empty)."""
+    text = np.frombuffer(chunk, np.uint8)
+    ends = np.flatnonzero(text == 10)
+    n = len(ends) + (not chunk.endswith(b"\n"))
+    if (np.count_nonzero(text == 44) == n * (n_fields - 1)
+            and not (len(ends) and (ends[0] == 0 or (np.diff(ends) == 1).any()))):
+        return chunk, _NONE, n, None                     # most chunks
+    if not chunk.endswith(b"\n"):
+        ends = np.append(ends, len(chunk))
+    starts = np.concatenate([[0], ends[:-1] + 1])
+    commas = np.flatnonzero(text == 44)
+    per = np.searchsorted(commas, ends) - np.searchsorted(commas, starts)
+    blank = (ends == starts) | ((ends - starts == per) & (per == n_fields - 1))
+    if (~blank & (per < n_fields - 1)).any():
+        return None
+    at = np.flatnonzero(blank)
+    before = at - np.arange(len(at))                   # rows above each blank line
+    long = np.flatnonzero(~blank & (per > n_fields - 1))
+    long = None if not len(long) else int(long[0] - np.count_nonzero(at < long[0]))
+    if len(at):
+        keep = np.repeat(~blank, ends - starts + 1)[:len(text)]
+        chunk = text[keep].tobytes()
+    return chunk, before, n - len(at), long
+
+
+def _parse(source, rows, parser, chunk_bytes, size_hint):
     """Parse the data rows chunk by chunk into `rows`, in file order, the chunks on up to
     :func:`~workbench.threads.threads_here` threads.
 
     Returns (ok, firsts): ok False for a file for the line reader; `firsts` the first row
-    of each kind of failure (kind -> (file line, cells); see :mod:`.metlocate`).  After
+    of each kind of failure (kind -> (file line, cells); see :mod:`.metlocate`; kind
+    ``("fields",)``: a line with more fields than the header).  After
     a row without a known site or a valid hour the rows are no longer kept (the error
     comes before any check over all rows), but every chunk is still parsed, since a
     later row may hold an error the line reader raises first."""
@@ -494,12 +588,17 @@ def _parse(source, rows, parser, chunk_bytes, size_hint, first_line):
         for got in parsed:
             if got is None:
                 return False, {}
+            blanks, n, got = got
+            if len(blanks):
+                rows.add_blanks(seen + blanks)
+            if got is None:                          # blank lines only
+                continue
             found = None
             if isinstance(got, metlocate.Located):
                 for kind, (i, cells) in got.firsts.items():
-                    firsts.setdefault(kind, (first_line + seen + i, cells))
+                    firsts.setdefault(kind, (int(rows.line_of(seen + i)), cells))
                 keep = keep and got.valid
-                zones_known = zones_known and not any(k[0] in ("site", "time")
+                zones_known = zones_known and not any(k[0] in ("site", "time", "fields")
                                                       for k in got.firsts)
                 site_idx, t, n, n_bytes = got.site_idx, got.t, got.n, got.n_bytes
                 zoned = got.zoned
@@ -520,7 +619,7 @@ def _parse(source, rows, parser, chunk_bytes, size_hint, first_line):
     return seen > 0, firsts
 
 
-def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variables, hour):
+def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour):
     """Repeats refused, per-site checks, the ledger as codes and the (site, time) store,
     one group of whole sites at a time."""
     if not rows.present.any():
@@ -593,9 +692,9 @@ def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variabl
             del got, grp, inv, empty
     finally:
         checked.close()
-    line_dtype = np.int32 if first_line + n < 2**31 else np.int64
+    lines = rows.all_lines()
     ledger = Ledger.for_codes(CodedRows(
-        str(path), np.arange(first_line, first_line + n, dtype=line_dtype), site, ids,
+        str(path), lines, site, ids,
         reason_codes, np.array(list(texts), dtype=object), rejected))
     ds = store.dataset(site_ids, times, met_attrs(rows.names, path, variables))
     ds = load_small(ds, store)
@@ -604,7 +703,7 @@ def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variabl
     unknown = [raw_headers[c] for c in raw_headers if c not in set(variables) | {"site", "time"}]
     if unknown:
         ledger.notes.append(f"{path.name}: columns not used: {', '.join(unknown)}")
-    note = metlocate.missing_note(path, raw_headers, rows.missing, first_line)
+    note = metlocate.missing_note(path, raw_headers, rows.missing, 0)   # file lines kept
     if note:
         ledger.notes.append(note)
     return ds, ledger
