@@ -1,0 +1,290 @@
+"""Spreadsheet exports of the hourly met CSV read in chunks as the line reader reads them.
+
+A sheet saved as CSV quotes every cell (and the header), starts with a UTF-8 byte-order
+mark, ends its lines with CRLF, pads cells with blanks, ends with empty lines or lines of
+commas, or writes empty fields after the last column.  For each variant the chunked
+reader (:func:`workbench.io.metfast.read_met_csv_fast`) must give what the line reader
+(:class:`workbench.io.table.RawTable`, :func:`workbench.io.met.read_met`) gives: the
+same values, ledger (file line numbers included), reasons and notes, or the same
+located error, on one thread and on two, in byte ranges of a few lines.  The numbers
+must also be those of the same file written plainly.
+"""
+from __future__ import annotations
+
+import gzip
+import importlib.util
+import re
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+
+import workbench.io.metfast as metfast
+from workbench.errors import InputError
+from workbench.io.met import read_met
+from workbench.io.table import RawTable
+
+_spec = importlib.util.spec_from_file_location(        # its file builders and checks
+    "_metfast_cases", Path(__file__).with_name("test_metfast.py"))
+_cases = importlib.util.module_from_spec(_spec)
+_spec.loader.exec_module(_cases)
+HEAD, _line_reader, _rows, assert_same = (_cases.HEAD, _cases._line_reader, _cases._rows,
+                                          _cases.assert_same)
+
+
+@pytest.fixture()
+def threads():
+    from workbench.threads import set_threads
+    yield set_threads
+    set_threads(None)
+
+
+def _plain():
+    """Two sites, grouped; an empty row (rejected); NA in one cell (counted); the
+    column not used; a meta line above the header."""
+    a = _rows("alpha", "2020-03-01T00:00", 24 * 12)
+    b = _rows("beta", "2020-03-03T00:00", 24 * 10, rh_scale=0.01, seed=1)
+    a[40] = "alpha,2020-03-02T16:00,,,,,,,,\n"
+    cells = a[50].split(",")
+    cells[3] = "NA"
+    a[50] = ",".join(cells)
+    return "# station: invented\n" + HEAD + "".join(a + b)
+
+
+def _lines(text):
+    return text.split("\n")
+
+
+def _quote_all(text):
+    """Every cell of the header and the rows in quotes (the meta line as it is)."""
+    out = []
+    for ln in _lines(text):
+        out.append(ln if ln.startswith("#") or not ln else
+                   ",".join(f'"{c}"' for c in ln.split(",")))
+    return "\n".join(out)
+
+
+def _quote_rows(text):
+    out = []
+    for k, ln in enumerate(_lines(text)):
+        out.append(ln if k < 2 or not ln else ",".join(f'"{c}"' for c in ln.split(",")))
+    return "\n".join(out)
+
+
+def _quote_header(text):
+    lines = _lines(text)
+    lines[1] = ",".join(f'"{c}"' for c in lines[1].split(","))
+    return "\n".join(lines)
+
+
+def _blanks(text):
+    """Blanks around the cells: `` 3.2 , 4.1``, a tab after some, spaces before quotes
+    and inside them; the header padded too."""
+    out = []
+    for k, ln in enumerate(_lines(text)):
+        if k == 0 or not ln:
+            out.append(ln)
+            continue
+        cells = ln.split(",")
+        pads = [" {} ", "{} ", "  {}", "{}\t", '  "{}" ', '" {} "', "{}"]
+        if ln.startswith('"'):                   # quoted already: blanks outside only
+            pads = [" {} ", "{} ", "  {}", "{}\t", "{}"]
+        out.append(",".join(pads[(k + j) % len(pads)].format(c) for j, c in enumerate(cells)))
+    return "\n".join(out)
+
+
+def _trailing_fields(text):
+    """Two empty fields after the last column of every data row (the header has none):
+    the line reader refuses the file, naming the first such line."""
+    out = []
+    for k, ln in enumerate(_lines(text)):
+        out.append(ln + ",," if k >= 2 and ln else ln)
+    return "\n".join(out)
+
+
+def _trailing_columns(text):
+    """Two empty fields after the last column of the header and of every row (a sheet
+    with two formatted empty columns): read, the empty columns noted as not used."""
+    out = []
+    for k, ln in enumerate(_lines(text)):
+        out.append(ln + ",," if k >= 1 and ln else ln)
+    return "\n".join(out)
+
+
+def _blank_lines(text):
+    """A blank line under the meta line, empty lines and lines of commas inside and at
+    the end (the line reader drops them; the line numbers of the rows stay those of
+    the file)."""
+    lines = _lines(text)
+    lines.insert(1, "")
+    lines.insert(120, "")
+    lines.insert(300, ",,,,,,,,,")
+    lines.insert(301, "")
+    return "\n".join(lines) + "\n\n,,,,,,,,,\n\n"
+
+
+def _space_time(text):
+    """Timestamps written with a blank between date and time (``2020-03-01 05:00``)."""
+    return text.replace("T", " ")
+
+
+def _everything(text):
+    """A byte-order mark, CRLF, every cell quoted with blanks around, blank lines."""
+    return "\ufeff" + _blanks(_quote_all(_blank_lines(text))).replace("\n", "\r\n")
+
+
+VARIANTS = {
+    "quoted cells": _quote_rows,
+    "quoted header": _quote_header,
+    "every cell quoted": _quote_all,
+    "byte-order mark": lambda t: "\ufeff" + t,
+    "CRLF": lambda t: t.replace("\n", "\r\n"),
+    "blanks around cells": _blanks,
+    "trailing empty lines": lambda t: t + "\n\n\n",
+    "blank lines and lines of commas": _blank_lines,
+    "empty columns after the last": _trailing_columns,
+    "a blank inside the timestamps": _space_time,
+    "all of them": _everything,
+}
+
+
+def _write(tmp_path, text, gz=False, name="met"):
+    p = tmp_path / (f"{name}.csv.gz" if gz else f"{name}.csv")
+    data = text.encode("utf-8")
+    p.write_bytes(gzip.compress(data) if gz else data)
+    return p
+
+
+@pytest.mark.parametrize("n_threads", [1, 2])
+@pytest.mark.parametrize("variant", list(VARIANTS))
+def test_a_spreadsheet_export_reads_as_the_line_reader_and_as_the_plain_file(
+        tmp_path, cat, monkeypatch, threads, variant, n_threads):
+    """Each variant: read by the chunked reader (not declined), in ranges of a few
+    lines, on one thread or two: values, ledger, reasons and notes of the line reader;
+    the values those of the plain file."""
+    plain = _write(tmp_path, _plain(), name="plain")
+    p = _write(tmp_path, VARIANTS[variant](_plain()), gz=variant == "all of them")
+    threads(n_threads)
+    fast = metfast.read_met_csv_fast(p, cat, chunk_bytes=3000)
+    assert fast is not None
+    line = _line_reader(monkeypatch, p, cat)
+    assert_same(fast, line)
+    ref, ref_ledger = _line_reader(monkeypatch, plain, cat)
+    ds, ledger = fast
+    for v in ref.data_vars:
+        np.testing.assert_array_equal(ds[v].values, ref[v].values)
+    np.testing.assert_array_equal(ds["time"].values, ref["time"].values)
+    assert list(ds["site"].values) == list(ref["site"].values)
+    pd.testing.assert_frame_equal(ledger.summary().drop(columns="file"),
+                                  ref_ledger.summary().drop(columns="file"))
+    assert (ledger.table["reason"].tolist() == ref_ledger.table["reason"].tolist())
+    if variant in ("blank lines and lines of commas", "all of them"):
+        assert ledger.table["line"].iloc[0] == 4            # meta, blank line, header
+        assert ledger.table["line"].iloc[-1] > ref_ledger.table["line"].iloc[-1]
+    else:
+        assert ledger.table["line"].tolist() == ref_ledger.table["line"].tolist()
+    note = [n for n in ledger.notes if "read as missing" in n]
+    assert len(note) == 1 and "'NA' x1" in note[0] and "temperature [degC]" in note[0]
+
+
+@pytest.mark.parametrize("n_threads", [1, 2])
+def test_empty_fields_after_the_last_column_are_refused_as_the_line_reader_does(
+        tmp_path, cat, monkeypatch, threads, n_threads):
+    """``...,3.2,,`` where the header ends at 3.2: the line reader's parser refuses the
+    file ("malformed CSV row", at the first such line); the chunked reader raises the
+    same error itself, without a whole-file read, also when the file is quoted."""
+    for k, text in enumerate((_trailing_fields(_plain()),
+                              _quote_all(_trailing_fields(_plain())).replace("\n", "\r\n"))):
+        p = _write(tmp_path, text)
+        with pytest.raises(InputError, match="malformed CSV row") as line_err:
+            _line_reader(monkeypatch, p, cat)
+        assert line_err.value.line == 3
+        threads(n_threads)
+        with monkeypatch.context() as m:
+            m.setattr(RawTable, "read", classmethod(lambda *a: pytest.fail("whole-file read")))
+            with pytest.raises(InputError) as err:
+                metfast.read_met_csv_fast(p, cat, chunk_bytes=3000)
+        assert str(err.value) == str(line_err.value)
+        with pytest.raises(InputError) as err:
+            read_met(p, cat)
+        assert str(err.value) == str(line_err.value)
+
+
+@pytest.mark.parametrize("n_threads", [1, 2])
+@pytest.mark.parametrize("bad, shown", [('"ten"', "ten"), ('" ten "', "ten"),
+                                        ('" 3 .2"', "3 .2"), ('"<5"', "<5")])
+def test_a_bad_cell_in_a_quoted_file_is_named_at_its_file_line_and_column(
+        tmp_path, cat, monkeypatch, threads, bad, shown, n_threads):
+    """A bad cell in a later byte range of a quoted CRLF file with blank lines above it:
+    the chunked reader raises the line reader's error (its file line counting the blank
+    lines, its column, the cell without quotes and blanks), without a whole-file read."""
+    lines = _everything(_plain()).split("\r\n")
+    k = next(i for i in range(3, len(lines)) if sum(map(len, lines[:i])) > 7000
+             and lines[i].count(",") == 9)
+    cells = lines[k].split(",")
+    cells[7] = bad                                             # pressure
+    lines[k] = ",".join(cells)
+    p = _write(tmp_path, "\r\n".join(lines))
+    with pytest.raises(InputError) as line_err:
+        _line_reader(monkeypatch, p, cat)
+    assert line_err.value.line == k + 1
+    assert "pressure [hPa]" in str(line_err.value) and repr(shown)[1:-1] in str(line_err.value)
+    threads(n_threads)
+    monkeypatch.setattr(RawTable, "read", classmethod(lambda *a: pytest.fail("whole-file read")))
+    with pytest.raises(InputError) as err:
+        metfast.read_met_csv_fast(p, cat, chunk_bytes=3000)
+    assert str(err.value) == str(line_err.value)
+
+
+@pytest.mark.parametrize("n_threads", [1, 2])
+def test_a_repeated_hour_and_a_zone_break_in_a_quoted_file(tmp_path, cat, monkeypatch,
+                                                           threads, n_threads):
+    """Errors that name a second line (the repeated hour's first row) or read a line
+    again (the zone convention): the cells as the line reader shows them (no quotes)
+    and the file lines counting the blank lines."""
+    threads(n_threads)
+    base = _everything(_plain()).split("\r\n")
+    rows = [i for i, ln in enumerate(base) if ln.count(",") == 9 and "alpha" in ln]
+    for case in ("repeat", "zone"):
+        lines = list(base)
+        k = rows[200]
+        cells = lines[k].split(",")
+        if case == "repeat":
+            cells[1] = lines[rows[150]].split(",")[1]
+        else:
+            cells[1] = re.sub(r"(T\d\d:00)", r"\1+01:00", cells[1])
+        lines[k] = ",".join(cells)
+        p = _write(tmp_path, "\r\n".join(lines))
+        with pytest.raises(InputError) as line_err:
+            _line_reader(monkeypatch, p, cat)
+        assert f"line {k + 1}," in str(line_err.value)
+        assert '"' not in line_err.value.value and " " not in line_err.value.value
+        with pytest.raises(InputError) as err:
+            metfast.read_met_csv_fast(p, cat, chunk_bytes=3000)
+        assert str(err.value) == str(line_err.value)
+
+
+@pytest.mark.parametrize("change", [
+    lambda t: t.replace('"alpha"', '"alp,ha"', 1),            # a comma inside quotes
+    lambda t: t.replace('"alpha"', '"al""pha"', 1),           # a doubled quote
+    lambda t: t.replace('\r\n"alpha"', '\r\n\t"alpha"', 1),   # a tab before a quote
+    lambda t: t.replace('\r\n"beta"', '\r"beta"', 1),         # a lone CR
+    lambda t: t.replace('\r\n"beta"', '\r\n   \r\n"beta"', 1),  # a line of blanks
+    lambda t: t.replace('"\r\n"beta"', '"\x0c\r\n"beta"', 1),  # a form feed
+])
+def test_truly_odd_files_still_go_to_the_line_reader(tmp_path, cat, monkeypatch, change):
+    """What the plain text of a chunk cannot hold is declined; the line reader gives its
+    result or its error."""
+    text = _quote_all(_plain()).replace("\n", "\r\n")
+    p = _write(tmp_path, change(text))
+    assert change(text) != text
+    assert metfast.read_met_csv_fast(p, cat, chunk_bytes=3000) is None
+    try:
+        line = _line_reader(monkeypatch, p, cat)
+    except InputError as exc:
+        with pytest.raises(InputError) as err:
+            read_met(p, cat)
+        assert str(err.value) == str(exc)
+    else:
+        assert_same(read_met(p, cat), line)
