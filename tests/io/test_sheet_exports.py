@@ -272,6 +272,7 @@ def test_a_repeated_hour_and_a_zone_break_in_a_quoted_file(tmp_path, cat, monkey
     lambda t: t.replace('\r\n"beta"', '\r"beta"', 1),         # a lone CR
     lambda t: t.replace('\r\n"beta"', '\r\n   \r\n"beta"', 1),  # a line of blanks
     lambda t: t.replace('"\r\n"beta"', '"\x0c\r\n"beta"', 1),  # a form feed
+    lambda t: t.replace('\r\n"beta"', '\r\n""\r\n"beta"', 1),   # one empty field
 ])
 def test_truly_odd_files_still_go_to_the_line_reader(tmp_path, cat, monkeypatch, change):
     """What the plain text of a chunk cannot hold is declined; the line reader gives its
@@ -288,3 +289,51 @@ def test_truly_odd_files_still_go_to_the_line_reader(tmp_path, cat, monkeypatch,
         assert str(err.value) == str(exc)
     else:
         assert_same(read_met(p, cat), line)
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_plain_text_of_a_chunk_as_the_line_reader_reads_the_cells(tmp_path, seed):
+    """:func:`~workbench.io.linechunks.normalise` against the line reader itself on
+    random cells: numbers, words, blanks inside a cell, missing-value texts, empty cells,
+    each plain, quoted, padded with spaces or tabs outside or inside the quotes; lines of
+    commas, empty lines, CRLF.  Every chunk it accepts gives, line by line, the cells of
+    the rows of :class:`~workbench.io.table.RawTable` (its blank rows dropped); a chunk
+    with what it cannot hold (a comma or a doubled quote inside quotes, a tab before a
+    quote) is declined."""
+    from workbench.io.linechunks import normalise
+    rng = np.random.default_rng(seed)
+    texts = ["3.2", "-0.5", "1e3", "ridge", "north ridge", "2021-01-01 00:00", "", "NA",
+             "<5", "x y  z"]
+    safe = ["{}", " {}", "{} ", "\t{}\t", '"{}"', ' "{}" ', '" {} "', '"{}"\t', '"\t{} "']
+    odd = ['"{},"', '"{}""x"', '\t"{}"', 'a"{}"']
+    n = 4
+    for trial in range(20):
+        lines = []
+        for k in range(30):
+            pick = rng.random()
+            if pick < 0.05:
+                lines.append("")
+            elif pick < 0.1:
+                lines.append(",".join(rng.choice(["", " ", '""', ' "" ']) for _ in range(n)))
+            else:
+                lines.append(",".join(rng.choice(safe).format(rng.choice(texts))
+                                      for _ in range(n)))
+        declined = trial % 4 == 3
+        if declined:
+            cells = lines[7].split(",") if lines[7].count(",") == n - 1 else [""] * n
+            cells[1] = rng.choice(odd).format("v")
+            lines[7] = ",".join(cells)
+        end = "\r\n" if trial % 2 else "\n"
+        body = end.join(lines) + end
+        got = normalise(body.encode())
+        if declined:
+            assert got is None
+            continue
+        assert got is not None
+        p = tmp_path / f"t{trial}.csv"
+        p.write_bytes((",".join(f"c{j}" for j in range(n)) + end + body).encode())
+        tab = RawTable.read(p)
+        rows = [ln.split(",") for ln in got.decode().split("\n")[:-1]]
+        kept = [r for r in rows if any(r)]
+        assert [list(r) for r in tab.frame.itertuples(index=False)] == kept
+        assert tab.lines.tolist() == [k + 2 for k, r in enumerate(rows) if any(r)]

@@ -146,7 +146,8 @@ def normalise(chunk):
         :data:`ODD_BYTES`, a quote not enclosing a whole cell (a comma or a doubled quote
         inside, text beside it), a tab before an opening quote (the line reader keeps
         it and the quotes as text: only spaces are skipped before a quote,
-        ``skipinitialspace``), or a line of blanks only.
+        ``skipinitialspace``), a line of blanks only or a line of one empty quoted cell
+        (a row of one field to the line reader, not a blank line).
 
     Notes
     -----
@@ -183,6 +184,8 @@ def normalise(chunk):
                          _NL)
         if not (np.isin(before, (_COMMA, _NL)).all() and np.isin(after, (_COMMA, _NL)).all()):
             return None
+        if ((before == _NL) & (after == _NL) & (closes == opens + 1)).any():
+            return None                  # a line of one empty field: not a blank line there
         breaks = np.flatnonzero((text == _COMMA) | (text == _NL))
         if (np.searchsorted(breaks, opens) != np.searchsorted(breaks, closes)).any():
             return None                  # a comma or a line break inside the quotes
