@@ -6,7 +6,8 @@ CRLF line ends), against the same file written plainly.
 
 The met CSV of :func:`network.make_network` (N/2 invented sites, 2 years each) is
 written twice into a temporary folder, gzipped: plainly, and as a sheet saved as CSV
-with every cell (header included) in quotes and CRLF line ends.  Each read is
+with every cell (header included) in quotes and CRLF line ends (and with ``--padded``
+a third time, with a blank on each side of every comma).  Each read is
 :func:`workbench.io.met.read_met` in a fresh Python process with the package of one
 checkout (``--roots``, each put first on ``PYTHONPATH``), which reports its wall time
 (the read alone), its CPU time (user + system of all its threads, the read alone) and
@@ -45,19 +46,23 @@ print(json.dumps({"wall": wall, "cpu": cpu, "peak_mb": hwm / 1024, "rows": ledge
 
 
 def write_inputs(folder, site_years):
-    """(sites.toml, plain met.csv.gz, quoted CRLF met.csv.gz) of `site_years`."""
+    """(sites.toml, plain met.csv.gz, quoted CRLF met.csv.gz, padded met.csv.gz) of
+    `site_years` (padded: a blank on each side of every comma, ``3.2 , 4.1``)."""
     sys.path.insert(0, str(ROOT / "benchmarks"))
     from network import make_network
     make_network(folder, site_years // 2, years=2)
     plain = Path(folder) / "met.csv.gz"
     sheet = Path(folder) / "sheet_met.csv.gz"
+    padded = Path(folder) / "padded_met.csv.gz"
     with gzip.open(plain, "rt", encoding="utf-8") as src, \
-            gzip.open(sheet, "wt", encoding="utf-8", compresslevel=1, newline="") as out:
+            gzip.open(sheet, "wt", encoding="utf-8", compresslevel=1, newline="") as out, \
+            gzip.open(padded, "wt", encoding="utf-8", compresslevel=1) as pad:
         for ln in src:
             ln = ln.rstrip("\n")
             out.write((ln if ln.startswith("#") else '"' + ln.replace(",", '","') + '"')
                       + "\r\n")
-    return Path(folder) / "sites.toml", plain, sheet
+            pad.write((ln if ln.startswith("#") else ln.replace(",", " , ")) + "\n")
+    return Path(folder) / "sites.toml", plain, sheet, padded
 
 
 def read_once(root, met, sites):
@@ -78,11 +83,14 @@ def main(argv=None):
                     help="checkouts whose package reads (each first on PYTHONPATH)")
     ap.add_argument("--repeat", type=int, default=1)
     ap.add_argument("--plain", action="store_true", help="also read the plain file")
+    ap.add_argument("--padded", action="store_true",
+                    help="also read the file with blanks around the cells")
     args = ap.parse_args(argv)
     results = []
     with tempfile.TemporaryDirectory(prefix="workbench-sheet-") as tmp:
-        sites, plain, sheet = write_inputs(tmp, args.site_years)
-        files = [("quoted CRLF", sheet)] + ([("plain", plain)] if args.plain else [])
+        sites, plain, sheet, padded = write_inputs(tmp, args.site_years)
+        files = [("quoted CRLF", sheet)] + ([("plain", plain)] if args.plain else []) \
+            + ([("padded", padded)] if args.padded else [])
         for k in range(args.repeat):
             for root in args.roots:
                 for what, met in files:
