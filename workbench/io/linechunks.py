@@ -6,13 +6,17 @@ zlib, which releases the interpreter lock while it works (the parsing threads of
 by one (the head of the file) and then the rest in chunks of whole lines.
 :func:`normalise` turns a chunk of a spreadsheet export (CRLF line ends, every cell in
 quotes, blanks around the cells) into the plain text of the cells as the line-by-line
-reader (:class:`~workbench.io.table.RawTable`) sees them.
+reader (:class:`~workbench.io.table.RawTable`) sees them, and :func:`plain_rows` drops
+its blank lines (noting where they were); :func:`read_head` and :func:`header_cells`
+read the lines above the data rows by that reader's rules.
 """
 from __future__ import annotations
 
+import io
 import zlib
 
 import numpy as np
+import pandas as pd
 
 #: Compressed bytes read and text bytes returned per call of zlib [byte].
 _GZ_READ, _GZ_OUT = 1 << 20, 4 << 20
@@ -125,6 +129,8 @@ def line_cells(path, names, line, chunk_bytes=8 << 20):
 #: a chunk holding one goes to the line reader.
 ODD_BYTES = (b"\v", b"\f", b"\x1c", b"\x1d", b"\x1e", b"\x1f")
 _COMMA, _NL, _QUOTE, _SPACE, _TAB = 44, 10, 34, 32, 9
+#: No rows: the blank lines of most chunks.
+_NO_ROWS = np.empty(0, np.int64)
 
 
 def normalise(chunk):
@@ -264,3 +270,84 @@ def _strip_runs(text):
     run = np.repeat(drop, ends - starts + 1)
     keep[at[run]] = False
     return text[keep]
+
+
+def read_head(stream):
+    """(meta, number of lines above the header, header text) or None, by the rules of
+    :meth:`~workbench.io.table.RawTable.read`: ``#`` lines (``key: value`` read as
+    metadata), a blank line after them when each held a key, then blank lines; CRLF
+    line ends and a UTF-8 byte-order mark as there.  None for what only the line reader
+    may judge (another line break inside a line, a ``#`` line taken for the header)."""
+    meta, n_meta, in_meta = {}, 0, True
+    while True:
+        raw = stream.readline(1 << 16)
+        if not raw:
+            return None
+        try:
+            ln = raw.decode("utf-8" if n_meta else "utf-8-sig")
+        except UnicodeDecodeError:
+            return None
+        if not ln.endswith("\n"):
+            return None
+        ln = ln[:-2] if ln.endswith("\r\n") else ln[:-1]
+        if ln.splitlines() not in ([ln], []):
+            return None          # a lone CR (...) inside: more lines to the line reader
+        s = ln.strip()
+        if in_meta and s.startswith("#"):
+            n_meta += 1
+            body = s.lstrip("#").strip()
+            if ":" in body:
+                key, val = body.split(":", 1)
+                meta[key.strip().lower()] = val.strip()
+            continue
+        if in_meta and s == "" and n_meta == len(meta) and n_meta:
+            n_meta += 1
+            continue
+        in_meta = False
+        if s == "":
+            n_meta += 1          # blank lines above the header
+            continue
+        if s.startswith("#"):
+            return None
+        return meta, n_meta, ln
+
+
+def header_cells(header):
+    """The column names of the header line as the line reader's parser names them
+    (quotes removed, spaces before a cell skipped, ``Unnamed: k`` for an empty one);
+    None for a header with a quote left open."""
+    if header.count('"') % 2:
+        return None
+    cols = pd.read_csv(io.StringIO(header + "\n"), dtype=str, keep_default_na=False,
+                       skip_blank_lines=False, skipinitialspace=True, index_col=False).columns
+    return [str(c) for c in cols]
+
+
+def plain_rows(chunk, n_fields):
+    """The rows of a plain chunk: (chunk without its blank lines, the blank lines (each
+    as the number of rows above it), rows, the row of the first line with more fields
+    than the header or None); None for a line with fewer (the line reader's parser fills
+    it up: its rules).  A blank line is empty or holds commas only, the header's number
+    of fields (the line reader drops the rows whose cells are all empty)."""
+    text = np.frombuffer(chunk, np.uint8)
+    ends = np.flatnonzero(text == 10)
+    n = len(ends) + (not chunk.endswith(b"\n"))
+    if (np.count_nonzero(text == 44) == n * (n_fields - 1)
+            and not (len(ends) and (ends[0] == 0 or (np.diff(ends) == 1).any()))):
+        return chunk, _NO_ROWS, n, None                     # most chunks
+    if not chunk.endswith(b"\n"):
+        ends = np.append(ends, len(chunk))
+    starts = np.concatenate([[0], ends[:-1] + 1])
+    commas = np.flatnonzero(text == 44)
+    per = np.searchsorted(commas, ends) - np.searchsorted(commas, starts)
+    blank = (ends == starts) | ((ends - starts == per) & (per == n_fields - 1))
+    if (~blank & (per < n_fields - 1)).any():
+        return None
+    at = np.flatnonzero(blank)
+    before = at - np.arange(len(at))                   # rows above each blank line
+    long = np.flatnonzero(~blank & (per > n_fields - 1))
+    long = None if not len(long) else int(long[0] - np.count_nonzero(at < long[0]))
+    if len(at):
+        keep = np.repeat(~blank, ends - starts + 1)[:len(text)]
+        chunk = text[keep].tobytes()
+    return chunk, before, n - len(at), long

@@ -20,18 +20,29 @@ read back into memory), and the ledger is kept as codes
 reading peak is set by the chunk and group sizes and the threads, not by the file
 (plus 13 bytes a row of ledger).
 
-It takes only files it can read exactly as the line-by-line reader does: plain
-``# key: value`` lines above the header, no quotes, no blanks in the data rows, no
-blank lines, ASCII data, every row with the header's number of fields, and for the
-rows themselves every cell a number or a missing-value text (counted for the ledger
-note as the line reader counts them), a known site and a valid timestamp on the hour,
-each site's timestamps all zoned or all naive (per-site tallies of the zone flags,
-:class:`~.metlocate.ZoneTally`), no repeated hour.  An error of one row (the last
-conditions) it locates itself as the line reader does (:mod:`.metlocate`); for any
-other file it returns None and :func:`workbench.io.met.read_met` reads it line by
-line, which gives the located error or handles the oddity (so the messages stay those
-of one reader).  The values, the ledger, the notes and the errors are the line-by-line
-reader's, on any number of threads (tests/io/test_metfast.py).
+It takes the files it can read exactly as the line-by-line reader does, spreadsheet
+exports included: ``# key: value`` lines, blank lines and a UTF-8 byte-order mark above
+the header, a quoted header, CRLF line ends, and in the data rows quoted cells, blanks
+around the cells, empty lines and lines of commas (dropped, their line numbers
+skipped), and empty columns after the last when the header has them too (``Unnamed:
+k``, noted as not used).  Each chunk is first made plain (:func:`.linechunks.normalise`,
+then the blank lines dropped): the cells the line reader would see, so everything below
+runs on plain text.  The rows must be ASCII, every line with the header's number of
+fields, and for the rows themselves every cell a number or a missing-value text (counted
+for the ledger note as the line reader counts them), a known site and a valid timestamp
+on the hour, each site's timestamps all zoned or all naive (per-site tallies of the zone
+flags, :class:`~.metlocate.ZoneTally`), no repeated hour.  An error of one row (the
+last conditions) and a line with more fields than the header (``...,3.2,,`` where the
+header ends at 3.2: the line reader's parser refuses the file) it locates itself as the
+line reader does (:mod:`.metlocate`).  For the truly odd files (a quoted cell holding a
+comma, a doubled quote or a line break, text beside a quote, a tab before a quote, a
+lone CR or another line break of ``str.splitlines``, a line of blanks only, a line with
+fewer fields than the header, non-ASCII data, a ``-0``) it returns None and
+:func:`workbench.io.met.read_met` reads the file line by line, which gives the located
+error or handles the oddity (so the messages stay those of one reader); that reader
+still holds every cell of the file as text.  The values, the ledger, the notes and the
+errors are the line-by-line reader's, on any number of threads
+(tests/io/test_metfast.py, tests/io/test_sheet_exports.py).
 """
 from __future__ import annotations
 
@@ -53,7 +64,9 @@ from ..units import parse_header
 from . import metchecks, metlocate
 from .common import join_reasons, release_free_memory
 from .ledger import CodedRows, Ledger
-from .linechunks import Source, gunzip, line_cells, normalise, plain
+from .linechunks import (Source, gunzip, header_cells, line_cells, normalise, plain,
+                         plain_rows, read_head)
+from .metrows import Spill
 from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
 from .table import _OFFSET, SAMPLE_MISSING_TEXTS, YEARS, parse_iso
@@ -70,88 +83,12 @@ _ANY_CASE = [""] + sorted({"".join(c) for t in SAMPLE_MISSING_TEXTS if t
                            for c in itertools.product(*({ch.lower(), ch.upper()} for ch in t))})
 #: What :func:`_checked` returns for a repeated hour (located by :mod:`.metlocate`).
 _REPEAT = object()
-#: No rows: what a chunk of blank lines only holds, and the blank lines of most chunks.
-_NONE = np.empty(0, np.int64)
 #: Cells the C parser reads as a number but the line reader refuses ("True" is 1.0 there).
 #: The parser does so only for a column of the chunk whose every cell is such a word or
 #: missing (a word beside a number is an error), so the text is searched only when a
 #: column holds nothing but 0, 1 and NaN (a search of every chunk cost 1.5 s at 1,000
 #: site-years).
 _WORDS = re.compile(rb"(?:^|,)(?:[Tt]rue|TRUE|[Ff]alse|FALSE)(?=,|\n|$)", re.MULTILINE)
-
-
-def _head(stream):
-    """(meta, number of lines above the header, header text) or None, by the rules of
-    :meth:`~workbench.io.table.RawTable.read`: ``#`` lines (``key: value`` read as
-    metadata), a blank line after them when each held a key, then blank lines; CRLF
-    line ends and a UTF-8 byte-order mark as there.  None for what only the line reader
-    may judge (another line break inside a line, a ``#`` line taken for the header)."""
-    meta, n_meta, in_meta = {}, 0, True
-    while True:
-        raw = stream.readline(1 << 16)
-        if not raw:
-            return None
-        try:
-            ln = raw.decode("utf-8" if n_meta else "utf-8-sig")
-        except UnicodeDecodeError:
-            return None
-        if not ln.endswith("\n"):
-            return None
-        ln = ln[:-2] if ln.endswith("\r\n") else ln[:-1]
-        if ln.splitlines() not in ([ln], []):
-            return None          # a lone CR (...) inside: more lines to the line reader
-        s = ln.strip()
-        if in_meta and s.startswith("#"):
-            n_meta += 1
-            body = s.lstrip("#").strip()
-            if ":" in body:
-                key, val = body.split(":", 1)
-                meta[key.strip().lower()] = val.strip()
-            continue
-        if in_meta and s == "" and n_meta == len(meta) and n_meta:
-            n_meta += 1
-            continue
-        in_meta = False
-        if s == "":
-            n_meta += 1          # blank lines above the header
-            continue
-        if s.startswith("#"):
-            return None
-        return meta, n_meta, ln
-
-
-def _header_cells(header):
-    """The column names of the header line as the line reader's parser names them
-    (quotes removed, spaces before a cell skipped, ``Unnamed: k`` for an empty one);
-    None for a header with a quote left open."""
-    if header.count('"') % 2:
-        return None
-    cols = pd.read_csv(io.StringIO(header + "\n"), dtype=str, keep_default_na=False,
-                       skip_blank_lines=False, skipinitialspace=True, index_col=False).columns
-    return [str(c) for c in cols]
-
-
-class _Rows:
-    """A column of the whole file, filled chunk by chunk into one array (grown when the
-    estimate was short): per-chunk pieces kept until the end would fragment the heap
-    and hold about twice their size."""
-
-    def __init__(self, dtype, capacity):
-        self.data = np.empty(max(int(capacity), 1), dtype)
-        self.n = 0
-
-    def add(self, v):
-        if self.n + len(v) > len(self.data):
-            bigger = np.empty(max(int(len(self.data) * 1.5), self.n + len(v)), self.data.dtype)
-            bigger[:self.n] = self.data[:self.n]
-            self.data = bigger
-        self.data[self.n:self.n + len(v)] = v
-        self.n += len(v)
-
-    def done(self) -> np.ndarray:
-        out = self.data[:self.n] if self.n > 0.9 * len(self.data) else self.data[:self.n].copy()
-        self.data = None
-        return out
 
 
 class _TimeTexts:
@@ -244,13 +181,13 @@ def read_met_csv_fast(path, catalogue, chunk_bytes=CHUNK_BYTES):
 
 
 def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_hint):
-    head = _head(stream)
+    head = read_head(stream)
     if head is None:
         return None
     meta, n_meta, header = head
     if header.count(";") > header.count(",") or header.count("\t") > header.count(","):
         return None
-    cells = _header_cells(header)
+    cells = header_cells(header)
     if cells is None:
         return None
     names = [parse_header(c).name for c in cells]
@@ -279,7 +216,7 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
     ids = np.array(list(catalogue.ids), dtype=object)
     parser = _ChunkParser(names, used, units, catalogue, ids, hour, label, convert, variables)
     with tempfile.TemporaryDirectory(prefix="workbench-metrows-") as tmp:
-        rows = _Spill(Path(tmp), used[2:], len(ids), n_meta + 2)
+        rows = Spill(Path(tmp), used[2:], len(ids), n_meta + 2)
         try:
             ok, firsts = _parse(stream, rows, parser, chunk_bytes, size_hint)
         finally:
@@ -309,130 +246,6 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
         return None                    # nothing raised: the line reader judges the file
 
 
-class _Spill:
-    """The parsed rows of a file: site codes in memory (4 bytes a row), times and values
-    appended to scratch files, with what the grid needs (span of the hours with a value,
-    the sites with a value, whether each site's rows are consecutive), and the blank
-    lines between the rows (dropped, as the line reader drops them; their lines are
-    skipped in the rows' line numbers, :meth:`line_of`)."""
-
-    def __init__(self, folder, names, n_sites, first_line):
-        self.folder, self.names = folder, list(names)
-        self.first_line = first_line
-        self._blanks = [_NONE]
-        self._blank_at = _NONE
-        self.files = {n: open(folder / f"{n}.bin", "wb") for n in ["time"] + self.names}
-        self.site = None
-        self.n = 0
-        self.count = np.zeros(n_sites, np.int64)
-        self.first = np.full(n_sites, -1, np.int64)
-        self.present = np.zeros(n_sites, bool)
-        self.seen = np.zeros(n_sites, bool)
-        self.grouped = True
-        self.last = -1
-        self.t_min = self.t_max = None
-        self.zones = metlocate.ZoneTally(n_sites)
-        #: column -> {missing-value text: [count, first (at most 5) rows of the file]}
-        self.missing = {}
-
-    def add_blanks(self, before):
-        """Blank lines, each given by the number of rows of the file above it."""
-        self._blanks.append(np.asarray(before, np.int64))
-
-    def line_of(self, rows):
-        """File lines (1-based) of rows of the file (0-based, the blank lines not
-        counted) [-]."""
-        if len(self._blanks) > 1:
-            self._blank_at = np.concatenate(self._blanks)
-            self._blanks = [self._blank_at]
-        rows = np.asarray(rows, np.int64)
-        if not len(self._blank_at):
-            return rows + self.first_line
-        return rows + self.first_line + np.searchsorted(self._blank_at, rows, side="right")
-
-    def all_lines(self):
-        """The file line of every row (int32 when they fit) [-]."""
-        last = int(self.line_of([max(self.n - 1, 0)])[0])
-        dtype = np.int32 if last < 2**31 else np.int64
-        if not len(self._blank_at):
-            return np.arange(self.first_line, self.first_line + self.n, dtype=dtype)
-        return self.line_of(np.arange(self.n)).astype(dtype)
-
-    def count_missing(self, found, row0):
-        """Count the missing-value texts of a chunk starting at file row `row0` (their
-        first five file lines kept)."""
-        for name, texts in found.items():
-            for text, at in texts.items():
-                e = self.missing.setdefault(name, {}).setdefault(text, [0, []])
-                e[0] += len(at)
-                e[1].extend(self.line_of(row0 + at[:max(5 - len(e[1]), 0)]).tolist())
-
-    def add(self, site, t, values, capacity):
-        if self.site is None:
-            self.site = _Rows(np.int32, capacity)
-        empty = np.ones(len(site), bool)
-        for v in values.values():
-            empty &= np.isnan(v)
-        kept = t[~empty]
-        if len(kept):
-            lo, hi = kept.min(), kept.max()
-            self.t_min = lo if self.t_min is None else min(self.t_min, lo)
-            self.t_max = hi if self.t_max is None else max(self.t_max, hi)
-        self.present[site[~empty]] = True
-        change = np.flatnonzero(np.diff(site)) + 1
-        run_sites = site[np.concatenate([[0], change])]
-        if run_sites[0] == self.last:
-            run_sites = run_sites[1:]
-        if len(np.unique(run_sites)) < len(run_sites) or self.seen[run_sites].any():
-            self.grouped = False       # a site's rows in more than one run: sorted below
-        self.seen[run_sites] = True
-        self.last = site[-1]
-        u, at = np.unique(site, return_index=True)
-        new = self.first[u] < 0
-        self.first[u[new]] = self.n + at[new]
-        self.count += np.bincount(site, minlength=len(self.count))
-        self.site.add(site.astype(np.int32))
-        t.view(np.int64).tofile(self.files["time"])
-        for n in self.names:
-            values[n].tofile(self.files[n])
-        self.n += len(site)
-
-    def close(self):
-        for f in self.files.values():
-            f.close()
-        if isinstance(self.site, _Rows):
-            self.site = self.site.done()
-
-    def read(self, name, rows):
-        """Values of `name` at `rows` (from the scratch file; nothing stays mapped)."""
-        dtype = np.int64 if name == "time" else np.float64
-        m = np.memmap(self.folder / f"{name}.bin", dtype=dtype, mode="r", shape=(self.n,))
-        try:
-            out = np.array(m[rows])
-        finally:
-            del m
-        return out.view("datetime64[ns]") if name == "time" else out
-
-    def groups(self, limit):
-        """Row numbers of groups of whole sites (about `limit` rows each), each site's
-        rows in file order, the sites in catalogue order."""
-        sites = np.flatnonzero(self.count)
-        order = None if self.grouped else np.argsort(self.site, kind="stable")
-        ends = np.cumsum(self.count[sites])
-        starts = ends - self.count[sites]
-        i = 0
-        while i < len(sites):
-            j = i + 1
-            while j < len(sites) and ends[j] - starts[i] <= limit:
-                j += 1
-            if order is not None:
-                yield order[starts[i]:ends[j - 1]]
-            else:
-                yield np.concatenate([np.arange(self.first[s], self.first[s] + self.count[s])
-                                      for s in sites[i:j]])
-            i = j
-
-
 class _ChunkParser:
     """Parse one chunk of whole data lines (called on several threads at once): the
     chunk's blank lines (each as the number of its rows above it), its number of rows,
@@ -458,7 +271,7 @@ class _ChunkParser:
         chunk = normalise(chunk)                      # numpy: no interpreter lock held
         if chunk is None:
             return None
-        got = _lines(chunk, len(self.names))
+        got = plain_rows(chunk, len(self.names))
         if got is None:
             return None
         chunk, blanks, n, long = got
@@ -540,36 +353,6 @@ class _ChunkParser:
         """The first row of each kind of failure (metlocate), or None."""
         return metlocate.suspicious_rows(chunk, self.names, self.used, self.index, self.off_ns,
                                          self.label, self.hour)
-
-
-def _lines(chunk, n_fields):
-    """The rows of a plain chunk: (chunk without its blank lines, the blank lines (each
-    as the number of rows above it), rows, the row of the first line with more fields
-    than the header or None); None for a line with fewer (the line reader's parser fills
-    it up: its rules).  A blank line is empty or holds commas only, the header's number
-    of fields (the line reader drops the rows whose cells are all empty)."""
-    text = np.frombuffer(chunk, np.uint8)
-    ends = np.flatnonzero(text == 10)
-    n = len(ends) + (not chunk.endswith(b"\n"))
-    if (np.count_nonzero(text == 44) == n * (n_fields - 1)
-            and not (len(ends) and (ends[0] == 0 or (np.diff(ends) == 1).any()))):
-        return chunk, _NONE, n, None                     # most chunks
-    if not chunk.endswith(b"\n"):
-        ends = np.append(ends, len(chunk))
-    starts = np.concatenate([[0], ends[:-1] + 1])
-    commas = np.flatnonzero(text == 44)
-    per = np.searchsorted(commas, ends) - np.searchsorted(commas, starts)
-    blank = (ends == starts) | ((ends - starts == per) & (per == n_fields - 1))
-    if (~blank & (per < n_fields - 1)).any():
-        return None
-    at = np.flatnonzero(blank)
-    before = at - np.arange(len(at))                   # rows above each blank line
-    long = np.flatnonzero(~blank & (per > n_fields - 1))
-    long = None if not len(long) else int(long[0] - np.count_nonzero(at < long[0]))
-    if len(at):
-        keep = np.repeat(~blank, ends - starts + 1)[:len(text)]
-        chunk = text[keep].tobytes()
-    return chunk, before, n - len(at), long
 
 
 def _parse(source, rows, parser, chunk_bytes, size_hint):

@@ -155,7 +155,7 @@ def first_repeat(rows, line_of, limit):
 
     Parameters
     ----------
-    rows : workbench.io.metfast._Spill
+    rows : workbench.io.metrows.Spill
         Every row's site and time.
     line_of : callable
         ``line_of(rows)`` -> the file lines of rows of the file (0-based).
