@@ -374,3 +374,70 @@ def test_every_cell_quoted_and_its_slips_as_the_line_reader_reads_them(tmp_path,
             [r for r in rows if any(r)], body
         compared += 1
     assert compared >= 30 and accepted >= compared
+
+
+def _with_notes(text):
+    """Every cell quoted, CRLF, and free text in the column not used: commas, doubled
+    quotes, letters beyond ASCII, blanks (what a sheet's comment column holds)."""
+    notes = ['"rain, heavy"', '"gauge ""B"" read late"', '"Ålvik hut, door open"',
+             ' "checked" ', '""']
+    out = []
+    for k, ln in enumerate(_quote_all(text).split("\n")):
+        if k >= 2 and ln:
+            cells = ln.split(",")
+            cells[-1] = notes[k % len(notes)]
+            ln = ",".join(cells)
+        out.append(ln)
+    return "\r\n".join(out)
+
+
+@pytest.mark.parametrize("n_threads", [1, 2])
+def test_free_text_with_commas_in_a_column_not_used_is_read_in_chunks(
+        tmp_path, cat, monkeypatch, threads, n_threads):
+    """A quoted comment column (commas, doubled quotes, non-ASCII) that the plain rule
+    declines: each chunk is read by the line reader's own parser (the cells of the
+    columns read must be plain), so the file is still read in chunks, with the values,
+    ledger and notes of the line reader; a bad cell in it is named at its line."""
+    p = _write(tmp_path, _with_notes(_plain()))
+    assert metfast.read_met_csv_fast(p, cat, chunk_bytes=3000) is not None
+    threads(n_threads)
+    with monkeypatch.context() as m:
+        m.setattr(RawTable, "read", classmethod(lambda *a: pytest.fail("whole-file read")))
+        fast = metfast.read_met_csv_fast(p, cat, chunk_bytes=3000)
+    assert_same(fast, _line_reader(monkeypatch, p, cat))
+    lines = _with_notes(_plain()).split("\r\n")
+    for k, col, value in [(200, 7, '"1e999"'), (230, 0, '"gamma"'), (260, 1, '" "')]:
+        bad = list(lines)
+        cells = bad[k].split(",")
+        cells[col] = value
+        bad[k] = ",".join(cells)
+        p = _write(tmp_path, "\r\n".join(bad))
+        with pytest.raises(InputError) as line_err:
+            _line_reader(monkeypatch, p, cat)
+        assert line_err.value.line == k + 1
+        with monkeypatch.context() as m:
+            m.setattr(RawTable, "read", classmethod(lambda *a: pytest.fail("whole-file read")))
+            with pytest.raises(InputError) as err:
+                metfast.read_met_csv_fast(p, cat, chunk_bytes=3000)
+        assert str(err.value) == str(line_err.value)
+
+
+@pytest.mark.parametrize("change", [
+    lambda t: t.replace('"checked"', '"checked\r\nlater"', 1),     # a cell over two lines
+    lambda t: t.replace('"checked"', '"checked', 1),               # a quote left open
+    lambda t: t.replace('"checked"', '"a","b"', 1),                # one field too many
+    lambda t: t.replace('\r\n"alpha"', '\r\n"al,pha"', 1),          # a comma in a site
+])
+def test_free_text_files_that_only_the_line_reader_judges(tmp_path, cat, monkeypatch, change):
+    text = _with_notes(_plain())
+    assert change(text) != text
+    p = _write(tmp_path, change(text))
+    assert metfast.read_met_csv_fast(p, cat, chunk_bytes=3000) is None
+    try:
+        line = _line_reader(monkeypatch, p, cat)
+    except InputError as exc:
+        with pytest.raises(InputError) as err:
+            read_met(p, cat)
+        assert str(err.value) == str(exc)
+    else:
+        assert_same(read_met(p, cat), line)

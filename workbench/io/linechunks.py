@@ -12,7 +12,9 @@ read the lines above the data rows by that reader's rules.
 """
 from __future__ import annotations
 
+import csv
 import io
+import warnings
 import zlib
 
 import numpy as np
@@ -117,7 +119,9 @@ def line_cells(path, names, line, chunk_bytes=8 << 20):
             k = chunk.count(b"\n") + (not chunk.endswith(b"\n"))
             if seen + k >= line:
                 raw = chunk.split(b"\n")[line - seen - 1] + b"\n"
-                text = normalise(raw)
+                text = normalise(raw) if raw.isascii() else None
+                if text is None:
+                    text = parsed_cells(raw, len(names), set(range(len(names))))
                 text = (raw if text is None else text).rstrip(b"\r\n").decode("utf-8")
                 return dict(zip(names, text.split(",")))
             seen += k
@@ -321,6 +325,66 @@ def header_cells(header):
     cols = pd.read_csv(io.StringIO(header + "\n"), dtype=str, keep_default_na=False,
                        skip_blank_lines=False, skipinitialspace=True, index_col=False).columns
     return [str(c) for c in cols]
+
+
+def parsed_cells(chunk, n_fields, used):
+    """The plain text of a chunk that :func:`normalise` declines, by the line reader's own
+    parser (pandas ``read_csv`` with its options, then ``str.strip``): for a file whose
+    other columns hold quoted text with commas, doubled quotes or non-ASCII letters.
+
+    Parameters
+    ----------
+    chunk : bytes
+        Whole lines of UTF-8 text.
+    n_fields : int
+        Fields of the header.
+    used : set of int
+        Positions of the columns read; the others are written ``x`` (or empty when
+        empty), which is all the rows need of them (blank or not).
+
+    Returns
+    -------
+    bytes or None
+        One line per line of the chunk (a blank row empty); None when a line holds a
+        quote left open (a cell over several lines), more or fewer fields than the
+        header (by the parser, or by ``csv.reader`` as the line reader counts them for
+        its message), a line break of ``str.splitlines`` other than LF and CRLF, or a
+        cell of a read column that is not plain ASCII without comma or quote.
+    """
+    try:
+        text = chunk.decode("utf-8")
+    except UnicodeDecodeError:
+        return None
+    text = text.replace("\r\n", "\n")
+    lines = text.split("\n")
+    if text.endswith("\n"):
+        lines.pop()
+    if len(text.splitlines()) != len(lines) or any(ln.count('"') % 2 for ln in lines):
+        return None
+    if any(r and len(r) != n_fields for r in csv.reader(lines)):
+        return None                      # as the line reader counts fields (a line of blanks)
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("error", pd.errors.ParserWarning)
+            df = pd.read_csv(io.StringIO(text), header=None, names=list(range(n_fields)),
+                             dtype=str, keep_default_na=False, skip_blank_lines=False,
+                             skipinitialspace=True, index_col=False)
+    except (ValueError, pd.errors.ParserError, pd.errors.ParserWarning):
+        return None
+    if len(df) != len(lines) or df.isna().to_numpy().any():
+        return None                      # a cell over lines; a line with fewer fields
+    df = df.apply(lambda c: c.str.strip())
+    blank = (df == "").all(axis=1).to_numpy()
+    for j in range(n_fields):
+        c = df[j]
+        if j in used:
+            if not (c.map(str.isascii).all() and not c.str.contains('[,"\n]', regex=True).any()):
+                return None
+        else:
+            df[j] = np.where(c == "", "", "x")
+    out = df.astype(object).agg(",".join, axis=1).to_numpy(dtype=object)
+    out[blank] = ""
+    return ("\n".join(out.tolist()) + "\n").encode("ascii")
 
 
 def plain_rows(chunk, n_fields):

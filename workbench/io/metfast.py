@@ -64,8 +64,8 @@ from ..units import parse_header
 from . import metchecks, metlocate
 from .common import join_reasons, release_free_memory
 from .ledger import CodedRows, Ledger
-from .linechunks import (Source, gunzip, header_cells, line_cells, normalise, plain,
-                         plain_rows, read_head)
+from .linechunks import (Source, gunzip, header_cells, line_cells, normalise, parsed_cells,
+                         plain, plain_rows, read_head)
 from .metrows import Spill
 from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
@@ -257,6 +257,7 @@ class _ChunkParser:
 
     def __init__(self, names, used, units, catalogue, ids, hour, label, convert, variables):
         self.names, self.used, self.units = names, used, units
+        self.used_at = {names.index(c) for c in used}
         self.index = {s: i for i, s in enumerate(ids)}
         self.off_ns = (catalogue.utc_offsets(ids) * 3600e9).astype("timedelta64[ns]")
         self.dtype = {"site": "category", "time": "category",
@@ -266,11 +267,12 @@ class _ChunkParser:
 
     def __call__(self, chunk):
         n_bytes = len(chunk)
-        if not chunk.isascii():
-            return None
-        chunk = normalise(chunk)                      # numpy: no interpreter lock held
-        if chunk is None:
-            return None
+        plain_text = normalise(chunk) if chunk.isascii() else None   # numpy: lock released
+        if plain_text is None:                        # the line reader's parser, per chunk
+            plain_text = parsed_cells(chunk, len(self.names), self.used_at)
+            if plain_text is None:
+                return None
+        chunk = plain_text
         got = plain_rows(chunk, len(self.names))
         if got is None:
             return None
