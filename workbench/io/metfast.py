@@ -27,22 +27,25 @@ around the cells, empty lines and lines of commas (dropped, their line numbers
 skipped), and empty columns after the last when the header has them too (``Unnamed:
 k``, noted as not used).  Each chunk is first made plain (:func:`.linechunks.normalise`,
 then the blank lines dropped): the cells the line reader would see, so everything below
-runs on plain text.  The rows must be ASCII, every line with the header's number of
-fields, and for the rows themselves every cell a number or a missing-value text (counted
-for the ledger note as the line reader counts them), a known site and a valid timestamp
-on the hour, each site's timestamps all zoned or all naive (per-site tallies of the zone
-flags, :class:`~.metlocate.ZoneTally`), no repeated hour.  An error of one row (the
-last conditions) and a line with more fields than the header (``...,3.2,,`` where the
-header ends at 3.2: the line reader's parser refuses the file) it locates itself as the
-line reader does (:mod:`.metlocate`).  For the truly odd files (a quoted cell holding a
-comma, a doubled quote or a line break, text beside a quote, a tab before a quote, a
-lone CR or another line break of ``str.splitlines``, a line of blanks only, a line with
-fewer fields than the header, non-ASCII data, a ``-0``) it returns None and
-:func:`workbench.io.met.read_met` reads the file line by line, which gives the located
-error or handles the oddity (so the messages stay those of one reader); that reader
-still holds every cell of the file as text.  The values, the ledger, the notes and the
-errors are the line-by-line reader's, on any number of threads
-(tests/io/test_metfast.py, tests/io/test_sheet_exports.py).
+runs on plain text.  A chunk that rule declines (free text in a column not read: quoted
+commas, doubled quotes, letters beyond ASCII) is made plain by the line reader's own
+parser, per chunk (:func:`.linechunks.parsed_cells`).  The rows of the columns read must
+be plain ASCII, every line with the header's number of fields, and for the rows
+themselves every cell a number or a missing-value text (counted for the ledger note as
+the line reader counts them), a known site and a valid timestamp on the hour, each
+site's timestamps all zoned or all naive (per-site tallies of the zone flags,
+:class:`~.metlocate.ZoneTally`), no repeated hour.  An error of one row (the last
+conditions) and a line with more fields than the header (``...,3.2,,`` where the header
+ends at 3.2: the line reader's parser refuses the file) it locates itself as the line
+reader does (:mod:`.metlocate`).  For the truly odd files (a quoted cell over several
+lines or a quote left open, a comma or quote in a cell of a column read, a lone CR or
+another line break of ``str.splitlines``, a line of blanks only, a line with fewer
+fields than the header, a ``-0``) it returns None and :func:`workbench.io.met.read_met`
+reads the file line by line, which gives the located error or handles the oddity (so
+the messages stay those of one reader); that reader still holds every cell of the file
+as text (:class:`~workbench.io.table.RawTable`: its checks run over whole columns).
+The values, the ledger, the notes and the errors are the line-by-line reader's, on any
+number of threads (tests/io/test_metfast.py, tests/io/test_sheet_exports.py).
 """
 from __future__ import annotations
 
