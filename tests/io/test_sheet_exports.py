@@ -20,6 +20,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
+import workbench.io.linechunks as linechunks
 import workbench.io.metfast as metfast
 from workbench.errors import InputError
 from workbench.io.met import read_met
@@ -292,7 +293,8 @@ def test_truly_odd_files_still_go_to_the_line_reader(tmp_path, cat, monkeypatch,
 
 
 @pytest.mark.parametrize("seed", range(6))
-def test_plain_text_of_a_chunk_as_the_line_reader_reads_the_cells(tmp_path, seed):
+def test_plain_text_of_a_chunk_as_the_line_reader_reads_the_cells(tmp_path, monkeypatch,
+                                                                   seed):
     """:func:`~workbench.io.linechunks.normalise` against the line reader itself on
     random cells: numbers, words, blanks inside a cell, missing-value texts, empty cells,
     each plain, quoted, padded with spaces or tabs outside or inside the quotes; lines of
@@ -326,6 +328,9 @@ def test_plain_text_of_a_chunk_as_the_line_reader_reads_the_cells(tmp_path, seed
         end = "\r\n" if trial % 2 else "\n"
         body = end.join(lines) + end
         got = normalise(body.encode())
+        with monkeypatch.context() as m:               # in pieces of a few lines: the same
+            m.setattr(linechunks, "_PIECE", 40)
+            assert normalise(body.encode()) == got
         if declined:
             assert got is None
             continue
