@@ -399,18 +399,22 @@ def parsed_cells(chunk, n_fields, used):
         return None
     if len(df) != len(lines) or df.isna().to_numpy().any():
         return None                      # a cell over lines; a line with fewer fields
-    df = df.apply(lambda c: c.str.strip())
-    blank = (df == "").all(axis=1).to_numpy()
+    blank = np.ones(len(df), bool)
+    cols = []
     for j in range(n_fields):
-        c = df[j]
-        if j in used:
-            if not (c.map(str.isascii).all() and not c.str.contains('[,"\n]', regex=True).any()):
-                return None
-        else:
-            df[j] = np.where(c == "", "", "x")
-    out = df.astype(object).agg(",".join, axis=1).to_numpy(dtype=object)
+        c = df[j].str.strip()
+        empty = (c == "").to_numpy()
+        blank &= empty
+        cols.append(c if j in used else pd.Series(np.where(empty, "", "x"), dtype=object))
+    out = cols[0].str.cat(cols[1:], sep=",").to_numpy(dtype=object)
     out[blank] = ""
-    return ("\n".join(out.tolist()) + "\n").encode("ascii")
+    text = "\n".join(out.tolist()) + "\n"
+    if '"' in text or text.count(",") != (n_fields - 1) * int((~blank).sum()):
+        return None                      # a comma or quote in a cell of a column read
+    try:
+        return text.encode("ascii")
+    except UnicodeEncodeError:
+        return None                      # letters beyond ASCII in a column read
 
 
 def plain_rows(chunk, n_fields):
