@@ -7,7 +7,8 @@ CRLF line ends), against the same file written plainly.
 The met CSV of :func:`network.make_network` (N/2 invented sites, 2 years each) is
 written twice into a temporary folder, gzipped: plainly, and as a sheet saved as CSV
 with every cell (header included) in quotes and CRLF line ends (and with ``--padded``
-a third time, with a blank on each side of every comma).  Each read is
+a third time, with a blank on each side of every comma; with ``--notes`` plainly with a
+quoted column of text holding a comma).  Each read is
 :func:`workbench.io.met.read_met` in a fresh Python process with the package of one
 checkout (``--roots``, each put first on ``PYTHONPATH``), which reports its wall time
 (the read alone), its CPU time (user + system of all its threads, the read alone) and
@@ -46,23 +47,31 @@ print(json.dumps({"wall": wall, "cpu": cpu, "peak_mb": hwm / 1024, "rows": ledge
 
 
 def write_inputs(folder, site_years):
-    """(sites.toml, plain met.csv.gz, quoted CRLF met.csv.gz, padded met.csv.gz) of
-    `site_years` (padded: a blank on each side of every comma, ``3.2 , 4.1``)."""
+    """(sites.toml, plain met.csv.gz, quoted CRLF met.csv.gz, padded met.csv.gz, noted
+    met.csv.gz) of `site_years` (padded: a blank on each side of every comma, ``3.2 ,
+    4.1``; noted: a last column ``notes`` of quoted text with a comma in every row)."""
     sys.path.insert(0, str(ROOT / "benchmarks"))
     from network import make_network
     make_network(folder, site_years // 2, years=2)
     plain = Path(folder) / "met.csv.gz"
     sheet = Path(folder) / "sheet_met.csv.gz"
     padded = Path(folder) / "padded_met.csv.gz"
+    noted = Path(folder) / "noted_met.csv.gz"
     with gzip.open(plain, "rt", encoding="utf-8") as src, \
             gzip.open(sheet, "wt", encoding="utf-8", compresslevel=1, newline="") as out, \
-            gzip.open(padded, "wt", encoding="utf-8", compresslevel=1) as pad:
+            gzip.open(padded, "wt", encoding="utf-8", compresslevel=1) as pad, \
+            gzip.open(noted, "wt", encoding="utf-8", compresslevel=1) as note:
+        header = True
         for ln in src:
             ln = ln.rstrip("\n")
             out.write((ln if ln.startswith("#") else '"' + ln.replace(",", '","') + '"')
                       + "\r\n")
             pad.write((ln if ln.startswith("#") else ln.replace(",", " , ")) + "\n")
-    return Path(folder) / "sites.toml", plain, sheet, padded
+            if not ln.startswith("#"):
+                ln += ",notes" if header else ',"gauge read, late"'
+                header = False
+            note.write(ln + "\n")
+    return Path(folder) / "sites.toml", plain, sheet, padded, noted
 
 
 def read_once(root, met, sites):
@@ -85,12 +94,15 @@ def main(argv=None):
     ap.add_argument("--plain", action="store_true", help="also read the plain file")
     ap.add_argument("--padded", action="store_true",
                     help="also read the file with blanks around the cells")
+    ap.add_argument("--notes", action="store_true",
+                    help="also read the file with a quoted notes column holding commas")
     args = ap.parse_args(argv)
     results = []
     with tempfile.TemporaryDirectory(prefix="workbench-sheet-") as tmp:
-        sites, plain, sheet, padded = write_inputs(tmp, args.site_years)
+        sites, plain, sheet, padded, noted = write_inputs(tmp, args.site_years)
         files = [("quoted CRLF", sheet)] + ([("plain", plain)] if args.plain else []) \
-            + ([("padded", padded)] if args.padded else [])
+            + ([("padded", padded)] if args.padded else []) \
+            + ([("notes", noted)] if args.notes else [])
         for k in range(args.repeat):
             for root in args.roots:
                 for what, met in files:
