@@ -402,7 +402,8 @@ def test_free_text_with_commas_in_a_column_not_used_is_read_in_chunks(
     """A quoted comment column (commas, doubled quotes, non-ASCII) that the plain rule
     declines: each chunk is read by the line reader's own parser (the cells of the
     columns read must be plain), so the file is still read in chunks, with the values,
-    ledger and notes of the line reader; a bad cell in it is named at its line."""
+    ledger and notes of the line reader; a bad cell, a repeated hour and a label
+    breaking its site's zone convention in it are named at their lines."""
     p = _write(tmp_path, _with_notes(_plain()))
     assert metfast.read_met_csv_fast(p, cat, chunk_bytes=3000) is not None
     threads(n_threads)
@@ -411,7 +412,10 @@ def test_free_text_with_commas_in_a_column_not_used_is_read_in_chunks(
         fast = metfast.read_met_csv_fast(p, cat, chunk_bytes=3000)
     assert_same(fast, _line_reader(monkeypatch, p, cat))
     lines = _with_notes(_plain()).split("\r\n")
-    for k, col, value in [(200, 7, '"1e999"'), (230, 0, '"gamma"'), (260, 1, '" "')]:
+    repeat = lines[120].split(",")[1]                           # alpha's hour of line 121
+    zoned = re.sub(r"(T\d\d:00)", r"\1+01:00", lines[180].split(",")[1])
+    for k, col, value in [(200, 7, '"1e999"'), (230, 0, '"gamma"'), (260, 1, '" "'),
+                          (150, 1, repeat), (180, 1, zoned)]:
         bad = list(lines)
         cells = bad[k].split(",")
         cells[col] = value

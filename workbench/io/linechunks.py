@@ -108,9 +108,10 @@ class Source:
             start = end
 
 
-def line_cells(path, names, line, chunk_bytes=8 << 20):
+def line_cells(path, names, line, chunk_bytes=8 << 20, read=None):
     """The cells of file line `line` (1-based), read again from the file, as the line
-    reader sees them (:func:`normalise`) [-]."""
+    reader sees them (:func:`normalise`, else :func:`parsed_cells`) [-]; only those of
+    the columns `read` (names; default all) are sure to be right."""
     with open(path, "rb") as f:
         gz = path.suffix == ".gz" or f.read(2) == b"\x1f\x8b"
         f.seek(0)
@@ -121,7 +122,8 @@ def line_cells(path, names, line, chunk_bytes=8 << 20):
                 raw = chunk.split(b"\n")[line - seen - 1] + b"\n"
                 text = normalise(raw) if raw.isascii() else None
                 if text is None:
-                    text = parsed_cells(raw, len(names), set(range(len(names))))
+                    at = {names.index(c) for c in (names if read is None else read)}
+                    text = parsed_cells(raw, len(names), at)
                 text = (raw if text is None else text).rstrip(b"\r\n").decode("utf-8")
                 return dict(zip(names, text.split(",")))
             seen += k

@@ -244,7 +244,8 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
         before = before or zones is not None
         repeat = None if before else metlocate.first_repeat(rows, rows.line_of, CHECK_ROWS)
         metlocate.raise_first(path, meta, heads, raw_headers, firsts, catalogue, label, hour,
-                              repeat, lambda line: line_cells(path, names, line, CHUNK_BYTES),
+                              repeat, lambda line: line_cells(path, names, line, CHUNK_BYTES,
+                                                                ("site", "time")),
                               zones)
         return None                    # nothing raised: the line reader judges the file
 
