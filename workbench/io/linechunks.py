@@ -352,6 +352,8 @@ def header_cells(header):
         return None
     cols = pd.read_csv(io.StringIO(header + "\n"), dtype=str, keep_default_na=False,
                        skip_blank_lines=False, skipinitialspace=True, index_col=False).columns
+    if len(next(csv.reader([header]))) != len(cols):
+        return None                      # the line reader's two counts of fields differ
     return [str(c) for c in cols]
 
 
