@@ -241,7 +241,7 @@ def _general(chunk):
 
 
 def _every_cell_quoted(chunk):
-    """The chunk without its quotes (and CRs) when every cell of every line is one quoted
+    r"""The chunk without its quotes (and CRs) when every cell of every line is one quoted
     text without a quote, comma or line break inside (``"a","b"`` lines, LF or CRLF;
     blanks inside the quotes stay), else None; by substring counts and one deletion
     (a fraction of the time of the general rule in :func:`normalise`).
