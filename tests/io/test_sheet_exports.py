@@ -450,3 +450,22 @@ def test_free_text_files_that_only_the_line_reader_judges(tmp_path, cat, monkeyp
         assert str(err.value) == str(exc)
     else:
         assert_same(read_met(p, cat), line)
+
+
+def test_the_demo_met_saved_from_a_sheet_as_the_line_reader(tmp_path, monkeypatch, threads):
+    """The invented demo's met (its deliberate problems included), every cell quoted, CRLF,
+    gzipped: on two threads the values, ledger and notes of the line reader, and the
+    values of the demo file as shipped."""
+    from workbench.io.sites import read_sites
+    demo = Path(__file__).resolve().parents[2] / "demo_data"
+    cat = read_sites(demo / "sites.toml")
+    text = gzip.decompress((demo / "met.csv.gz").read_bytes()).decode("utf-8")
+    p = _write(tmp_path, _quote_all(text.rstrip("\n")).replace("\n", "\r\n") + "\r\n", gz=True)
+    threads(2)
+    fast = metfast.read_met_csv_fast(p, cat)
+    assert fast is not None
+    assert_same(fast, _line_reader(monkeypatch, p, cat))
+    ref = metfast.read_met_csv_fast(demo / "met.csv.gz", cat)
+    for v in ref[0].data_vars:
+        np.testing.assert_array_equal(fast[0][v].values, ref[0][v].values)
+    assert fast[1].table["reason"].tolist() == ref[1].table["reason"].tolist()
