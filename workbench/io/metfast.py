@@ -20,18 +20,32 @@ read back into memory), and the ledger is kept as codes
 reading peak is set by the chunk and group sizes and the threads, not by the file
 (plus 13 bytes a row of ledger).
 
-It takes only files it can read exactly as the line-by-line reader does: plain
-``# key: value`` lines above the header, no quotes, no blanks in the data rows, no
-blank lines, ASCII data, every row with the header's number of fields, and for the
-rows themselves every cell a number or a missing-value text (counted for the ledger
-note as the line reader counts them), a known site and a valid timestamp on the hour,
-each site's timestamps all zoned or all naive (per-site tallies of the zone flags,
+It takes the files it can read exactly as the line-by-line reader does, spreadsheet
+exports included: ``# key: value`` lines, blank lines and a UTF-8 byte-order mark above
+the header, a quoted header, CRLF line ends, and in the data rows quoted cells, blanks
+around the cells, empty lines and lines of commas (dropped, their line numbers
+skipped), and empty columns after the last when the header has them too (``Unnamed:
+k``, noted as not used).  Each chunk is first made plain (:func:`.linechunks.normalise`,
+then the blank lines dropped): the cells the line reader would see, so everything below
+runs on plain text.  A chunk that rule declines (free text in a column not read: quoted
+commas, doubled quotes, letters beyond ASCII) is made plain by the line reader's own
+parser, per chunk (:func:`.linechunks.parsed_cells`).  The rows of the columns read must
+be plain ASCII, every line with the header's number of fields, and for the rows
+themselves every cell a number or a missing-value text (counted for the ledger note as
+the line reader counts them), a known site and a valid timestamp on the hour, each
+site's timestamps all zoned or all naive (per-site tallies of the zone flags,
 :class:`~.metlocate.ZoneTally`), no repeated hour.  An error of one row (the last
-conditions) it locates itself as the line reader does (:mod:`.metlocate`); for any
-other file it returns None and :func:`workbench.io.met.read_met` reads it line by
-line, which gives the located error or handles the oddity (so the messages stay those
-of one reader).  The values, the ledger, the notes and the errors are the line-by-line
-reader's, on any number of threads (tests/io/test_metfast.py).
+conditions) and a line with more fields than the header (``...,3.2,,`` where the header
+ends at 3.2: the line reader's parser refuses the file) it locates itself as the line
+reader does (:mod:`.metlocate`).  For the truly odd files (a quoted cell over several
+lines or a quote left open, a comma or quote in a cell of a column read, a lone CR or
+another line break of ``str.splitlines``, a line of blanks only, a line with fewer
+fields than the header, a ``-0``) it returns None and :func:`workbench.io.met.read_met`
+reads the file line by line, which gives the located error or handles the oddity (so
+the messages stay those of one reader); that reader still holds every cell of the file
+as text (:class:`~workbench.io.table.RawTable`: its checks run over whole columns).
+The values, the ledger, the notes and the errors are the line-by-line reader's, on any
+number of threads (tests/io/test_metfast.py, tests/io/test_sheet_exports.py).
 """
 from __future__ import annotations
 
@@ -53,7 +67,9 @@ from ..units import parse_header
 from . import metchecks, metlocate
 from .common import join_reasons, release_free_memory
 from .ledger import CodedRows, Ledger
-from .linechunks import Source, gunzip, line_cells, plain
+from .linechunks import (Source, gunzip, header_cells, line_cells, normalise, parsed_cells,
+                         plain, plain_rows, read_head)
+from .metrows import Spill
 from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
 from .table import _OFFSET, SAMPLE_MISSING_TEXTS, YEARS, parse_iso
@@ -70,69 +86,12 @@ _ANY_CASE = [""] + sorted({"".join(c) for t in SAMPLE_MISSING_TEXTS if t
                            for c in itertools.product(*({ch.lower(), ch.upper()} for ch in t))})
 #: What :func:`_checked` returns for a repeated hour (located by :mod:`.metlocate`).
 _REPEAT = object()
-#: Blanks other than the newline (what ``\s`` matches in bytes), found by a substring
-#: search each (a regular expression over 32 MB chunks cost 10 s at 1,000 site-years).
-_BLANKS = (b" ", b"\t", b"\r", b"\f", b"\v")
 #: Cells the C parser reads as a number but the line reader refuses ("True" is 1.0 there).
 #: The parser does so only for a column of the chunk whose every cell is such a word or
 #: missing (a word beside a number is an error), so the text is searched only when a
 #: column holds nothing but 0, 1 and NaN (a search of every chunk cost 1.5 s at 1,000
 #: site-years).
 _WORDS = re.compile(rb"(?:^|,)(?:[Tt]rue|TRUE|[Ff]alse|FALSE)(?=,|\n|$)", re.MULTILINE)
-
-
-def _head(stream):
-    """(meta, number of lines above the header, header text) or None."""
-    lines = []
-    while True:
-        raw = stream.readline(1 << 16)
-        if not raw:
-            return None
-        try:
-            ln = raw.decode("utf-8-sig" if not lines else "utf-8")
-        except UnicodeDecodeError:
-            return None
-        if not ln.endswith("\n"):
-            return None
-        ln = ln[:-1]
-        s = ln.strip()
-        if s.startswith("#"):
-            lines.append(ln)
-            continue
-        if s == "" or ln != s:
-            return None          # blank lines and indented headers: the line reader
-        break
-    meta = {}
-    for m in lines:
-        body = m.strip().lstrip("#").strip()
-        if ":" not in body:
-            return None
-        key, val = body.split(":", 1)
-        meta[key.strip().lower()] = val.strip()
-    return meta, len(lines), ln
-
-
-class _Rows:
-    """A column of the whole file, filled chunk by chunk into one array (grown when the
-    estimate was short): per-chunk pieces kept until the end would fragment the heap
-    and hold about twice their size."""
-
-    def __init__(self, dtype, capacity):
-        self.data = np.empty(max(int(capacity), 1), dtype)
-        self.n = 0
-
-    def add(self, v):
-        if self.n + len(v) > len(self.data):
-            bigger = np.empty(max(int(len(self.data) * 1.5), self.n + len(v)), self.data.dtype)
-            bigger[:self.n] = self.data[:self.n]
-            self.data = bigger
-        self.data[self.n:self.n + len(v)] = v
-        self.n += len(v)
-
-    def done(self) -> np.ndarray:
-        out = self.data[:self.n] if self.n > 0.9 * len(self.data) else self.data[:self.n].copy()
-        self.data = None
-        return out
 
 
 class _TimeTexts:
@@ -225,15 +184,14 @@ def read_met_csv_fast(path, catalogue, chunk_bytes=CHUNK_BYTES):
 
 
 def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_hint):
-    head = _head(stream)
+    head = read_head(stream)
     if head is None:
         return None
     meta, n_meta, header = head
-    if header.count(";") > header.count(",") or header.count("\t") > header.count(",") \
-            or '"' in header:
+    if header.count(";") > header.count(",") or header.count("\t") > header.count(","):
         return None
-    cells = header.split(",")
-    if any(c != c.strip() or not c for c in cells):
+    cells = header_cells(header)
+    if cells is None:
         return None
     names = [parse_header(c).name for c in cells]
     if len(set(names)) != len(names):
@@ -261,135 +219,49 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
     ids = np.array(list(catalogue.ids), dtype=object)
     parser = _ChunkParser(names, used, units, catalogue, ids, hour, label, convert, variables)
     with tempfile.TemporaryDirectory(prefix="workbench-metrows-") as tmp:
-        rows = _Spill(Path(tmp), used[2:], len(ids))
+        rows = Spill(Path(tmp), used[2:], len(ids), n_meta + 2)
         try:
-            ok, firsts = _parse(stream, rows, parser, chunk_bytes, size_hint, n_meta + 2)
+            ok, firsts = _parse(stream, rows, parser, chunk_bytes, size_hint)
         finally:
             rows.close()
         release_free_memory()     # what the parsing threads freed stays in their arenas
         if not ok:
             return None
+        if ("fields",) in firsts:    # the line reader's parser refuses the file first
+            raise InputError("malformed CSV row (wrong number of fields)", file=path,
+                             line=firsts[("fields",)][0],
+                             expected=f"{len(names)} fields as in the header")
         got = None
         zones = None
         if not any(k[0] in ("site", "time") for k in firsts):   # else raised before
             zones = rows.zones.first_break()
-            zones = None if zones is None else (zones[0] + n_meta + 2, zones[1] + n_meta + 2)
+            zones = None if zones is None else tuple(int(x) for x in rows.line_of(zones))
         if not firsts and zones is None:
-            got = _checked(rows, n_meta + 2, path, catalogue, ids, units, raw_headers,
-                           variables, hour)
+            got = _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour)
             if got is not _REPEAT:
                 return got
         before = any(k[0] in ("site", "time", "hour") for k in firsts)   # checked first
         before = before or zones is not None
-        repeat = None if before else metlocate.first_repeat(rows, n_meta + 2, CHECK_ROWS)
+        repeat = None if before else metlocate.first_repeat(rows, rows.line_of, CHECK_ROWS)
         metlocate.raise_first(path, meta, heads, raw_headers, firsts, catalogue, label, hour,
-                              repeat, lambda line: line_cells(path, names, line, CHUNK_BYTES),
+                              repeat, lambda line: line_cells(path, names, line, CHUNK_BYTES,
+                                                                ("site", "time")),
                               zones)
         return None                    # nothing raised: the line reader judges the file
 
 
-class _Spill:
-    """The parsed rows of a file: site codes in memory (4 bytes a row), times and values
-    appended to scratch files, with what the grid needs (span of the hours with a value,
-    the sites with a value, whether each site's rows are consecutive)."""
-
-    def __init__(self, folder, names, n_sites):
-        self.folder, self.names = folder, list(names)
-        self.files = {n: open(folder / f"{n}.bin", "wb") for n in ["time"] + self.names}
-        self.site = None
-        self.n = 0
-        self.count = np.zeros(n_sites, np.int64)
-        self.first = np.full(n_sites, -1, np.int64)
-        self.present = np.zeros(n_sites, bool)
-        self.seen = np.zeros(n_sites, bool)
-        self.grouped = True
-        self.last = -1
-        self.t_min = self.t_max = None
-        self.zones = metlocate.ZoneTally(n_sites)
-        #: column -> {missing-value text: [count, first (at most 5) rows of the file]}
-        self.missing = {}
-
-    def count_missing(self, found, row0):
-        """Count the missing-value texts of a chunk starting at file row `row0`."""
-        for name, texts in found.items():
-            for text, at in texts.items():
-                e = self.missing.setdefault(name, {}).setdefault(text, [0, []])
-                e[0] += len(at)
-                e[1].extend((row0 + at[:max(5 - len(e[1]), 0)]).tolist())
-
-    def add(self, site, t, values, capacity):
-        if self.site is None:
-            self.site = _Rows(np.int32, capacity)
-        empty = np.ones(len(site), bool)
-        for v in values.values():
-            empty &= np.isnan(v)
-        kept = t[~empty]
-        if len(kept):
-            lo, hi = kept.min(), kept.max()
-            self.t_min = lo if self.t_min is None else min(self.t_min, lo)
-            self.t_max = hi if self.t_max is None else max(self.t_max, hi)
-        self.present[site[~empty]] = True
-        change = np.flatnonzero(np.diff(site)) + 1
-        run_sites = site[np.concatenate([[0], change])]
-        if run_sites[0] == self.last:
-            run_sites = run_sites[1:]
-        if len(np.unique(run_sites)) < len(run_sites) or self.seen[run_sites].any():
-            self.grouped = False       # a site's rows in more than one run: sorted below
-        self.seen[run_sites] = True
-        self.last = site[-1]
-        u, at = np.unique(site, return_index=True)
-        new = self.first[u] < 0
-        self.first[u[new]] = self.n + at[new]
-        self.count += np.bincount(site, minlength=len(self.count))
-        self.site.add(site.astype(np.int32))
-        t.view(np.int64).tofile(self.files["time"])
-        for n in self.names:
-            values[n].tofile(self.files[n])
-        self.n += len(site)
-
-    def close(self):
-        for f in self.files.values():
-            f.close()
-        if isinstance(self.site, _Rows):
-            self.site = self.site.done()
-
-    def read(self, name, rows):
-        """Values of `name` at `rows` (from the scratch file; nothing stays mapped)."""
-        dtype = np.int64 if name == "time" else np.float64
-        m = np.memmap(self.folder / f"{name}.bin", dtype=dtype, mode="r", shape=(self.n,))
-        try:
-            out = np.array(m[rows])
-        finally:
-            del m
-        return out.view("datetime64[ns]") if name == "time" else out
-
-    def groups(self, limit):
-        """Row numbers of groups of whole sites (about `limit` rows each), each site's
-        rows in file order, the sites in catalogue order."""
-        sites = np.flatnonzero(self.count)
-        order = None if self.grouped else np.argsort(self.site, kind="stable")
-        ends = np.cumsum(self.count[sites])
-        starts = ends - self.count[sites]
-        i = 0
-        while i < len(sites):
-            j = i + 1
-            while j < len(sites) and ends[j] - starts[i] <= limit:
-                j += 1
-            if order is not None:
-                yield order[starts[i]:ends[j - 1]]
-            else:
-                yield np.concatenate([np.arange(self.first[s], self.first[s] + self.count[s])
-                                      for s in sites[i:j]])
-            i = j
-
-
 class _ChunkParser:
     """Parse one chunk of whole data lines (called on several threads at once): the
-    rows' site codes, end-of-hour times [ns] (UTC) and converted values, or None for a
-    chunk only the line reader may judge."""
+    chunk's blank lines (each as the number of its rows above it), its number of rows,
+    and the rows' site codes, end-of-hour times [ns] (UTC) and converted values (None
+    when it holds no row); None for a chunk only the line reader may judge.
+
+    A chunk is first made plain (:func:`~.linechunks.normalise`: CRLF, quotes, blanks
+    around the cells), then its blank lines (empty, or commas only) are dropped."""
 
     def __init__(self, names, used, units, catalogue, ids, hour, label, convert, variables):
         self.names, self.used, self.units = names, used, units
+        self.used_at = {names.index(c) for c in used}
         self.index = {s: i for i, s in enumerate(ids)}
         self.off_ns = (catalogue.utc_offsets(ids) * 3600e9).astype("timedelta64[ns]")
         self.dtype = {"site": "category", "time": "category",
@@ -398,16 +270,26 @@ class _ChunkParser:
         self.times = _TimeTexts()
 
     def __call__(self, chunk):
-        if not chunk.isascii() or any(b in chunk for b in _BLANKS):
+        n_bytes = len(chunk)
+        plain_text = normalise(chunk) if chunk.isascii() else None   # numpy: lock released
+        if plain_text is None:                        # the line reader's parser, per chunk
+            plain_text = parsed_cells(chunk, len(self.names), self.used_at)
+            if plain_text is None:
+                return None
+        chunk = plain_text
+        got = plain_rows(chunk, len(self.names))
+        if got is None:
             return None
-        text = np.frombuffer(chunk, np.uint8)         # numpy: no interpreter lock held
-        ends = np.flatnonzero(text == 10)
-        n = len(ends) + (not chunk.endswith(b"\n"))
-        if ((len(ends) and (ends[0] == 0 or (np.diff(ends) == 1).any()))   # a blank line
-                or np.count_nonzero(text == 34)                            # a quote
-                or np.count_nonzero(text == 44) != n * (len(self.names) - 1)):
-            return None
-        del text, ends
+        chunk, blanks, n, long = got
+        if long is not None:                          # the line reader's parser refuses it
+            return blanks, n, metlocate.Located(None, None, {("fields",): (long, {})}, n,
+                                                n_bytes, None)
+        if not n:
+            return blanks, 0, None
+        got = self._rows(chunk, n, n_bytes)
+        return None if got is None else (blanks, n, got)
+
+    def _rows(self, chunk, n, n_bytes):
         found = None     # texts read as missing: column -> {text: rows of the chunk}
         try:             # low_memory=False: one pass over the chunk, no pieces to join
             df = self._frame(chunk, [""])
@@ -451,7 +333,7 @@ class _ChunkParser:
             got[name] = self.convert(v, self.units[name], name, self.variables[name][0])
         if words and _WORDS.search(chunk):
             return self._locate(chunk)
-        return site_idx, t, got, n, len(chunk), zoned, found
+        return site_idx, t, got, n, n_bytes, zoned, found
 
     def _frame(self, chunk, na):
         return pd.read_csv(io.BytesIO(chunk), header=None, names=self.names,
@@ -479,12 +361,13 @@ class _ChunkParser:
                                          self.label, self.hour)
 
 
-def _parse(source, rows, parser, chunk_bytes, size_hint, first_line):
+def _parse(source, rows, parser, chunk_bytes, size_hint):
     """Parse the data rows chunk by chunk into `rows`, in file order, the chunks on up to
     :func:`~workbench.threads.threads_here` threads.
 
     Returns (ok, firsts): ok False for a file for the line reader; `firsts` the first row
-    of each kind of failure (kind -> (file line, cells); see :mod:`.metlocate`).  After
+    of each kind of failure (kind -> (file line, cells); see :mod:`.metlocate`; kind
+    ``("fields",)``: a line with more fields than the header).  After
     a row without a known site or a valid hour the rows are no longer kept (the error
     comes before any check over all rows), but every chunk is still parsed, since a
     later row may hold an error the line reader raises first."""
@@ -494,12 +377,17 @@ def _parse(source, rows, parser, chunk_bytes, size_hint, first_line):
         for got in parsed:
             if got is None:
                 return False, {}
+            blanks, n, got = got
+            if len(blanks):
+                rows.add_blanks(seen + blanks)
+            if got is None:                          # blank lines only
+                continue
             found = None
             if isinstance(got, metlocate.Located):
                 for kind, (i, cells) in got.firsts.items():
-                    firsts.setdefault(kind, (first_line + seen + i, cells))
+                    firsts.setdefault(kind, (int(rows.line_of(seen + i)), cells))
                 keep = keep and got.valid
-                zones_known = zones_known and not any(k[0] in ("site", "time")
+                zones_known = zones_known and not any(k[0] in ("site", "time", "fields")
                                                       for k in got.firsts)
                 site_idx, t, n, n_bytes = got.site_idx, got.t, got.n, got.n_bytes
                 zoned = got.zoned
@@ -520,7 +408,7 @@ def _parse(source, rows, parser, chunk_bytes, size_hint, first_line):
     return seen > 0, firsts
 
 
-def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variables, hour):
+def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour):
     """Repeats refused, per-site checks, the ledger as codes and the (site, time) store,
     one group of whole sites at a time."""
     if not rows.present.any():
@@ -593,9 +481,9 @@ def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variabl
             del got, grp, inv, empty
     finally:
         checked.close()
-    line_dtype = np.int32 if first_line + n < 2**31 else np.int64
+    lines = rows.all_lines()
     ledger = Ledger.for_codes(CodedRows(
-        str(path), np.arange(first_line, first_line + n, dtype=line_dtype), site, ids,
+        str(path), lines, site, ids,
         reason_codes, np.array(list(texts), dtype=object), rejected))
     ds = store.dataset(site_ids, times, met_attrs(rows.names, path, variables))
     ds = load_small(ds, store)
@@ -604,7 +492,7 @@ def _checked(rows, first_line, path, catalogue, ids, units, raw_headers, variabl
     unknown = [raw_headers[c] for c in raw_headers if c not in set(variables) | {"site", "time"}]
     if unknown:
         ledger.notes.append(f"{path.name}: columns not used: {', '.join(unknown)}")
-    note = metlocate.missing_note(path, raw_headers, rows.missing, first_line)
+    note = metlocate.missing_note(path, raw_headers, rows.missing, 0)   # file lines kept
     if note:
         ledger.notes.append(note)
     return ds, ledger

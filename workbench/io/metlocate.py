@@ -15,10 +15,14 @@ runs the line reader's own checks on it, with the repeated hours found over all 
 (:func:`first_repeat`).  A good row never fails a check, so the checks fail on the
 small table exactly where they fail on the whole file.
 
-Chunks with what is not a failure of one row (blank lines, quotes, blanks, rows of
-the wrong length, a ``-0``) and kinds not covered here still go to the line reader
-with the whole file (the caller returns None).  tests/io/test_metfast.py holds the
-errors to the line reader's.
+The chunks come made plain (:func:`~.linechunks.normalise`: quotes and blanks around
+the cells removed, blank lines dropped), so the cells are those the line reader
+checks.  A line with more fields than the header is the line reader's first error
+(its parser refuses the file); the chunked reader names it itself.  Chunks with what
+is not a failure of one row (a quote around a comma or a doubled quote, a line with
+fewer fields, a ``-0``) and kinds not covered here still go to the line reader with the
+whole file (the caller returns None).  tests/io/test_metfast.py and
+tests/io/test_sheet_exports.py hold the errors to the line reader's.
 """
 from __future__ import annotations
 
@@ -38,7 +42,8 @@ class Located:
     Attributes
     ----------
     site_idx : numpy.ndarray of int32
-        Catalogue position of each row's site (-1: not in the catalogue).
+        Catalogue position of each row's site (-1: not in the catalogue); None for a
+        chunk with a line of more fields than the header (kind ``("fields",)``).
     t : numpy.ndarray of datetime64[ns]
         End of each row's hour (UTC); NaT where the time is missing or not valid.
     firsts : dict
@@ -57,7 +62,7 @@ class Located:
     @property
     def valid(self) -> bool:
         """Every row has a known site and a valid time on the whole hour."""
-        return not any(k[0] in ("site", "time", "hour") for k in self.firsts)
+        return not any(k[0] in ("site", "time", "hour", "fields") for k in self.firsts)
 
 
 def suspicious_rows(chunk, names, used, index, off_ns, label, hour):
@@ -66,8 +71,9 @@ def suspicious_rows(chunk, names, used, index, off_ns, label, hour):
     Parameters
     ----------
     chunk : bytes
-        Whole data lines (ASCII, no quotes, blanks or blank lines, each line with the
-        header's number of fields).
+        Whole data lines made plain (:func:`~.linechunks.normalise`: ASCII, no quotes,
+        no blanks around a cell, no blank lines, each line with the header's number of
+        fields).
     names : list of str
         Column names of the header.
     used : list of str
@@ -144,15 +150,15 @@ def suspicious_rows(chunk, names, used, index, off_ns, label, hour):
     return Located(site_idx, t, firsts, n, len(chunk), aware)
 
 
-def first_repeat(rows, first_line, limit):
+def first_repeat(rows, line_of, limit):
     """The first row of the file that repeats a site's hour, and that hour's first row.
 
     Parameters
     ----------
-    rows : workbench.io.metfast._Spill
+    rows : workbench.io.metrows.Spill
         Every row's site and time.
-    first_line : int
-        File line of row 0.
+    line_of : callable
+        ``line_of(rows)`` -> the file lines of rows of the file (0-based).
     limit : int
         Rows per group of whole sites.
 
@@ -180,7 +186,7 @@ def first_repeat(rows, first_line, limit):
             best = (i, int(grp[order[k]]))
     if best is None:
         return None
-    return best[0] + first_line, best[1] + first_line
+    return tuple(int(x) for x in line_of(list(best)))
 
 
 def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour, repeat,
@@ -381,7 +387,7 @@ def missing_note(path, raw_headers, missing, first_line):
         Column name -> {text as typed: [count, first (at most 5) rows of the file]},
         the texts in order of first appearance.
     first_line : int
-        File line of row 0.
+        File line of row 0 (0 when `missing` holds file lines).
     """
     cols = [c for c in raw_headers if c in missing]
     lines, seen = [], {}

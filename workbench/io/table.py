@@ -164,7 +164,10 @@ class RawTable:
             raise InputError("malformed CSV row (wrong number of fields)", file=path,
                              line=line, expected=f"{n_head} fields as in the header") from None
         lines = np.arange(len(df)) + n_meta + 2
-        blank = (df == "").all(axis=1).to_numpy()
+        data = body[body.find("\n") + 1:] if "\n" in body else ""
+        if '"' in data or _BLANK.search(data):            # else no cell has any to strip
+            df = df.apply(lambda c: c.str.strip())
+        blank = (df == "").all(axis=1).to_numpy()       # blanks and quotes only: blank too
         df, lines = df.loc[~blank].reset_index(drop=True), lines[~blank]
         if df.empty:
             raise InputError("no data rows", file=path, line=n_meta + 1,
@@ -179,9 +182,6 @@ class RawTable:
             raw[h.name] = col
             names.append(h.name)
         df.columns = names
-        data = body[body.find("\n") + 1:] if "\n" in body else ""
-        if '"' in data or _BLANK.search(data):            # else no cell has any to strip
-            df = df.apply(lambda c: c.str.strip())
         if '"' in data:                                   # a quote left open swallows lines
             broken = df.apply(lambda c: c.str.contains("\n", regex=False)).to_numpy()
             if broken.any():

@@ -1,0 +1,121 @@
+"""Reading the hourly met of a network written as a spreadsheet export (every cell quoted,
+CRLF line ends), against the same file written plainly.
+
+    python benchmarks/sheet_met.py                         # 100 site-years, this checkout
+    python benchmarks/sheet_met.py --roots /work/main .    # an older checkout beside
+
+The met CSV of :func:`network.make_network` (N/2 invented sites, 2 years each) is
+written twice into a temporary folder, gzipped: plainly, and as a sheet saved as CSV
+with every cell (header included) in quotes and CRLF line ends (and with ``--padded``
+a third time, with a blank on each side of every comma; with ``--notes`` plainly with a
+quoted column of text holding a comma).  Each read is
+:func:`workbench.io.met.read_met` in a fresh Python process with the package of one
+checkout (``--roots``, each put first on ``PYTHONPATH``), which reports its wall time
+(the read alone), its CPU time (user + system of all its threads, the read alone) and
+its peak resident memory (``VmHWM``).  The reads alternate between the checkouts,
+``--repeat`` times each.  Nothing is asserted; on a shared machine compare the CPU
+times and the peaks, and print the load.
+"""
+from __future__ import annotations
+
+import argparse
+import gzip
+import json
+import os
+import subprocess
+import sys
+import tempfile
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+
+_CHILD = r"""
+import json, resource, sys, time
+from workbench.io.met import read_met
+from workbench.io.sites import read_sites
+cat = read_sites(sys.argv[2])
+r0, t0 = resource.getrusage(resource.RUSAGE_SELF), time.perf_counter()
+ds, ledger = read_met(sys.argv[1], cat)
+wall = time.perf_counter() - t0
+r1 = resource.getrusage(resource.RUSAGE_SELF)
+cpu = (r1.ru_utime - r0.ru_utime) + (r1.ru_stime - r0.ru_stime)
+hwm = next(int(ln.split()[1]) for ln in open("/proc/self/status") if ln.startswith("VmHWM"))
+import workbench
+print(json.dumps({"wall": wall, "cpu": cpu, "peak_mb": hwm / 1024, "rows": ledger.rows(),
+                  "sites": int(ds.sizes["site"]), "package": workbench.__file__}))
+"""
+
+
+def write_inputs(folder, site_years):
+    """(sites.toml, plain met.csv.gz, quoted CRLF met.csv.gz, padded met.csv.gz, noted
+    met.csv.gz) of `site_years` (padded: a blank on each side of every comma, ``3.2 ,
+    4.1``; noted: a last column ``notes`` of quoted text with a comma in every row)."""
+    sys.path.insert(0, str(ROOT / "benchmarks"))
+    from network import make_network
+    make_network(folder, site_years // 2, years=2)
+    plain = Path(folder) / "met.csv.gz"
+    sheet = Path(folder) / "sheet_met.csv.gz"
+    padded = Path(folder) / "padded_met.csv.gz"
+    noted = Path(folder) / "noted_met.csv.gz"
+    with gzip.open(plain, "rt", encoding="utf-8") as src, \
+            gzip.open(sheet, "wt", encoding="utf-8", compresslevel=1, newline="") as out, \
+            gzip.open(padded, "wt", encoding="utf-8", compresslevel=1) as pad, \
+            gzip.open(noted, "wt", encoding="utf-8", compresslevel=1) as note:
+        header = True
+        for ln in src:
+            ln = ln.rstrip("\n")
+            out.write((ln if ln.startswith("#") else '"' + ln.replace(",", '","') + '"')
+                      + "\r\n")
+            pad.write((ln if ln.startswith("#") else ln.replace(",", " , ")) + "\n")
+            if not ln.startswith("#"):
+                ln += ",notes" if header else ',"gauge read, late"'
+                header = False
+            note.write(ln + "\n")
+    return Path(folder) / "sites.toml", plain, sheet, padded, noted
+
+
+def read_once(root, met, sites):
+    env = dict(os.environ, PYTHONPATH=str(root))
+    out = subprocess.run([sys.executable, "-c", _CHILD, str(met), str(sites)], env=env,
+                         capture_output=True, text=True, check=True, cwd=str(root))
+    return json.loads(out.stdout.strip().splitlines()[-1])
+
+
+def _load():
+    return " ".join(f"{x:.2f}" for x in os.getloadavg())
+
+
+def main(argv=None):
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--site-years", type=int, default=100)
+    ap.add_argument("--roots", nargs="+", default=[str(ROOT)],
+                    help="checkouts whose package reads (each first on PYTHONPATH)")
+    ap.add_argument("--repeat", type=int, default=1)
+    ap.add_argument("--plain", action="store_true", help="also read the plain file")
+    ap.add_argument("--padded", action="store_true",
+                    help="also read the file with blanks around the cells")
+    ap.add_argument("--notes", action="store_true",
+                    help="also read the file with a quoted notes column holding commas")
+    args = ap.parse_args(argv)
+    results = []
+    with tempfile.TemporaryDirectory(prefix="workbench-sheet-") as tmp:
+        sites, plain, sheet, padded, noted = write_inputs(tmp, args.site_years)
+        files = [("quoted CRLF", sheet)] + ([("plain", plain)] if args.plain else []) \
+            + ([("padded", padded)] if args.padded else []) \
+            + ([("notes", noted)] if args.notes else [])
+        for k in range(args.repeat):
+            for root in args.roots:
+                for what, met in files:
+                    before = _load()
+                    got = read_once(Path(root).resolve(), met, sites)
+                    got.update(root=root, file=what, load_before=before, load_after=_load())
+                    results.append(got)
+                    print(f"{root:>24} {what:>12}: wall {got['wall']:6.2f} s, CPU "
+                          f"{got['cpu']:6.2f} s, peak {got['peak_mb']:7.0f} MB, "
+                          f"{got['rows']} rows (load {before} -> {got['load_after']})",
+                          flush=True)
+    return results
+
+
+if __name__ == "__main__":
+    main()
