@@ -136,7 +136,8 @@ def _hwm_mb() -> float:
 
 
 def child(folder: Path, layout: str, block: int, read_only: bool, out: Path):
-    """One measured run (in this fresh process)."""
+    """One measured run (in this fresh process); `block` 0: the command's default."""
+    block = block or None           # workbench.grid.default_block of the record
     import workbench
     counter = _ChunkCount()
     counter.install()
@@ -147,6 +148,7 @@ def child(folder: Path, layout: str, block: int, read_only: bool, out: Path):
         from workbench.grid_io import block_catalogue, open_grid, read_block
         paths = {r: next((folder / layout).glob(f"{r}.*")) for r in ROLES}
         grid = open_grid(paths["met"], paths["air"], paths["land_use"])
+        block = block or g.default_block(len(grid.times))
         stage = getattr(g, "staged", None)
         import contextlib
         ctx = stage(grid, block) if stage else contextlib.nullcontext(grid)
@@ -175,7 +177,8 @@ def main(argv=None) -> int:
     p.add_argument("--months", type=int, default=12)
     p.add_argument("--run", type=Path)
     p.add_argument("--layout", choices=list(LAYOUTS), default="zarr_day")
-    p.add_argument("--block", type=int, default=32)
+    p.add_argument("--block", type=int, default=0,
+                   help="cells per block side (0: the command's default, sized by the hours)")
     p.add_argument("--read-only", action="store_true")
     p.add_argument("--tag", default="run", help="the run folder is DIR/out_LAYOUT_TAG")
     p.add_argument("--child", action="store_true", help=argparse.SUPPRESS)
