@@ -193,8 +193,9 @@ class NetworkOverview(widgets.VBox):
         self.analysis = network_analysis_table(self.results, self.session.study.catalogue())
         # no width of its own: the column stretches it (a 100 % width plus the widget's
         # margins ran 4 px past the app); a wide table scrolls inside its own box
-        self.analysis_w = widgets.HTML("<b>Trends of the annual totals and critical-load "
-                                       "exceedance of the span [eq/ha/yr]</b>"
+        self.analysis_w = widgets.HTML("<b>Trends of the annual totals [kg/ha/yr per yr] "
+                                       "and critical-load exceedance of the span "
+                                       "[eq/ha/yr]</b>"
                                        "<div style='overflow-x:auto;max-width:100%'>"
                                        + table_html(self.analysis) + "</div>")
         # the two rankings side by side where the window is wide enough, else one
@@ -234,7 +235,8 @@ class NetworkOverview(widgets.VBox):
                 self.figs[k] = figure_widget(f)
             else:
                 refresh(self.figs[k], f)
-        text = table_html(apart, "every site has complete totals in every year")
+        text = table_html(apart.rename(columns={"value": f"value [{unit}]"}),
+                          "every site has complete totals in every year")
         if create:
             self.apart_w = widgets.HTML()
         self.apart_w.value = "<b>Not ranked (partial set of species or failing completeness)</b>" + text
