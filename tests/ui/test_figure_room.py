@@ -58,3 +58,19 @@ def test_years_readout_has_room(session):
                 SobolExplorer(session, site="ridge", years=(2021, 2021))]
     for app in apps:
         assert int(app.years_w.layout.width.rstrip("px")) >= 360, type(app).__name__
+
+
+def test_nitrogen_panel_has_room_for_its_axis_title():
+    """The sensitivity curves and the network totals: the nitrogen panel's y title and
+    ticks sit in the gap between the panels (they overlapped at the default gap)."""
+    import pandas as pd
+    sweep = pd.DataFrame({"value": [0.1, 0.2] * 6, "total": sorted(
+        [f"{e}_{p}" for e in "SN" for p in ("wet", "dry", "total")] * 2),
+        "rate": np.arange(12.0), "status": "complete"})
+    net = pd.DataFrame({"site": "ridge", "period": ["2020", "2021"] * 2,
+                        "element": ["S", "S", "N", "N"], "value": [30.0, 31.0, 250.0, 240.0],
+                        "rankable": True, "status": "complete", "missing": ""})
+    for fig in (figures.sensitivity_curves(sweep, "x", 0.1, "mmol/m2/yr"),
+                figures.network_totals(net, "mmol/m2/yr")):
+        gap = fig.layout.xaxis2.domain[0] - fig.layout.xaxis.domain[1]
+        assert gap >= figures.PANEL_GAP - 1e-9 >= 0.15

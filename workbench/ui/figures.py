@@ -134,6 +134,12 @@ def from_spec(spec: dict, template=TEMPLATE, fig=None) -> go.Figure:
     return fig
 
 
+#: Gap between the sulfur and the nitrogen panel [share of the width]: room for the
+#: nitrogen panel's tick labels and axis title ("mmol N m-2 yr-1" beside "250" ran over
+#: the ticks at plotly's default 0.1 in a 700 px figure).
+PANEL_GAP = 0.18
+
+
 @functools.lru_cache(maxsize=None)
 def subplot_layout(rows: int, cols: int, **options) -> tuple:
     """Layout JSON of ``make_subplots(rows, cols, **options)`` (built once per set of
@@ -256,7 +262,8 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
     plotly.graph_objects.Figure
         Six traces (S and N: wet, dry, total) and two of the baseline points.
     """
-    fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"))
+    fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"),
+                        horizontal_spacing=PANEL_GAP)
     cat = not all(isinstance(v, (int, float, np.number)) and not isinstance(v, bool)
                   for v in table["value"])
     xs = [str(v) for v in table["value"]] if cat else table["value"].tolist()
@@ -303,7 +310,8 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
     plotly.graph_objects.Figure
         Per site and element: one trace of rankable years and one of the others.
     """
-    fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"))
+    fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"),
+                        horizontal_spacing=PANEL_GAP)
     sites = list(pd.unique(table["site"]))
     for col, el in enumerate(ELEMENTS, start=1):
         for i, site in enumerate(sites):
