@@ -116,10 +116,18 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
 LEGEND_LINE_PX, LEGEND_FRAME_PX = 20, 220
 
 
-def legend_height(lines: int) -> int:
+def legend_height(lines: int, least: int = HEIGHT) -> int:
     """Figure height [px] at which a vertical legend of `lines` lines (entries and group
-    titles) shows whole, never below :data:`HEIGHT`."""
-    return max(HEIGHT, LEGEND_FRAME_PX + LEGEND_LINE_PX * (lines + 1))
+    titles) shows whole, never below `least` [px] (default :data:`HEIGHT`)."""
+    return max(least, LEGEND_FRAME_PX + LEGEND_LINE_PX * (lines + 1))
+
+
+def legend_lines(traces) -> int:
+    """Lines of the vertical legend of `traces` (plotly JSON): its title and one per
+    shown legend group or name."""
+    shown = {t.get("legendgroup") or t.get("name") for t in traces
+             if t.get("showlegend", True) is not False and (t.get("legendgroup") or t.get("name"))}
+    return len(shown) + 1
 
 
 def from_spec(spec: dict, template=TEMPLATE, fig=None) -> go.Figure:

@@ -11,7 +11,7 @@ import json
 import numpy as np
 
 from ..periods import SEASON_NAMES
-from .figures import from_spec, subplot_layout
+from .figures import from_spec, legend_height, legend_lines, subplot_layout
 from .palette import RESISTANCE_COLOURS, SPECIES_COLOURS, TEMPLATE
 from .summaries import (CM_PER_M, hour_season_slots, hourly_series, local_hour_and_season,
                         slot_statistic)
@@ -50,7 +50,8 @@ def _panels(traces, utc_offset_h, y_axis: dict, title: str, legend: str) -> dict
         layout[yname].update(y_axis.get("all", {}))
     layout[axes[0][0]]["title"] = {"text": _local(utc_offset_h)}
     layout[axes[0][1]].update(y_axis.get("first", {}))
-    layout.update(title={"text": title}, height=HEIGHT, legend={"title": {"text": legend}})
+    layout.update(title={"text": title}, height=legend_height(legend_lines(data), HEIGHT),
+                  legend={"title": {"text": legend}})     # the whole legend, no scroll bar
     return {"data": data, "layout": layout}
 
 
