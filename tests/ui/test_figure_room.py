@@ -90,6 +90,8 @@ def test_legends_of_the_velocity_and_excluded_figures_fit(session):
              figures_wet.excluded_by_reason_spec(res.screened, "ridge")]
     shown = [len({t["name"] for t in s["data"] if t.get("showlegend", True)}) for s in specs]
     assert shown[0] == len(figures_dry.DRY_SPECIES) and shown[2] == 2
-    for spec, entries in zip(specs, shown):
-        need = figures.LEGEND_FRAME_PX + figures.LEGEND_LINE_PX * (entries + 1 + 1)
+    lines = (figures_dry.LINE_LEGEND_PX, figures_dry.LINE_LEGEND_PX, figures.LEGEND_LINE_PX)
+    for spec, entries, px in zip(specs, shown, lines):
+        need = figures.LEGEND_FRAME_PX + px * (entries + 1)
         assert spec["layout"]["height"] >= need, (spec["layout"]["title"], entries)
+    assert figures_dry.LINE_LEGEND_PX >= 29        # measured spacing of line entries
