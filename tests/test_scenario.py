@@ -113,6 +113,12 @@ BAD_SCENARIOS = {
     "unknown_gas": ("[dry.fixed_velocity]\nSO3 = 0.5\n",
                     "line 4, column 'dry.fixed_velocity.SO3': unknown species, expected one of "
                     "SO2"),
+    # a fixed Vd typed in mm/s (50 for 5 cm/s): above the aerodynamic limit, refused
+    "fixed_vd_too_large": ("[dry.fixed_velocity]\nSO2 = 50\n",
+                           "line 4, column 'dry.fixed_velocity.SO2': out of range: got '50', "
+                           "expected a deposition velocity of 0 to 10 cm/s"),
+    "fixed_vd_negative": ("[dry.fixed_velocity]\nSO2 = -0.5\n",
+                          "line 4, column 'dry.fixed_velocity.SO2': out of range: got '-0.5'"),
 }
 
 

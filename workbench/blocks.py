@@ -185,10 +185,47 @@ WORKER_PRELOAD = ("workbench.blocks", "workbench.comparison", "workbench.drydep.
                   "workbench.drydep.wesely1989")
 
 
+#: Launcher of the worker processes of a local cluster (:func:`start_client`), a shell
+#: script in place of the Python executable that ``multiprocessing`` starts them with.
+#: Ctrl-C in a terminal reaches every process of its group, and each worker, still
+#: importing, printed its own KeyboardInterrupt traceback; the main process takes
+#: Ctrl-C and shuts the cluster down, so a worker ignores SIGINT from its start: the
+#: shell sets SIGINT to ignored before it execs Python, and an ignored signal stays
+#: ignored across exec and in Python (it installs its KeyboardInterrupt handler only
+#: where SIGINT has its default action).
+WORKER_LAUNCHER = """#!/bin/sh
+trap '' INT
+exec {python} "$@"
+"""
+
+
+def _worker_launcher(python):
+    """A temporary :data:`WORKER_LAUNCHER` for `python` (removed at exit), or None where
+    there is no POSIX shell or the temporary folder may not run programs (the workers
+    then start as before, and print their tracebacks on a Ctrl-C)."""
+    import atexit
+    import os
+    import shlex
+    import stat
+    import tempfile
+    if os.name != "posix" or not os.path.exists("/bin/sh"):
+        return None
+    fd, path = tempfile.mkstemp(prefix="workbench-worker-", suffix=".sh")
+    with os.fdopen(fd, "w") as f:
+        f.write(WORKER_LAUNCHER.format(python=shlex.quote(os.fsdecode(python))))
+    os.chmod(path, stat.S_IRWXU)
+    if not os.access(path, os.X_OK):      # a temporary folder mounted noexec
+        os.remove(path)
+        return None
+    atexit.register(lambda: os.path.exists(path) and os.remove(path))
+    return path
+
+
 def start_client(workers=None, scheduler=None):
     """A ``dask.distributed`` client: on `scheduler` (an address) or on a local cluster
     of `workers` single-threaded processes (without the variables of
-    :data:`UNSET_WORKER_ENVIRON`; each imports :data:`WORKER_PRELOAD` as it starts).
+    :data:`UNSET_WORKER_ENVIRON`; each ignores Ctrl-C, :data:`WORKER_LAUNCHER`, and
+    imports :data:`WORKER_PRELOAD` as it starts).
     The caller closes it (:func:`close_client`)."""
     from .optional import require
     distributed = require("distributed")
@@ -197,10 +234,24 @@ def start_client(workers=None, scheduler=None):
     import dask
     unset = {f"distributed.nanny.pre-spawn-environ.{name}": None
              for name in UNSET_WORKER_ENVIRON}
-    with dask.config.set(unset):      # None: not set (read when the nannies are made)
-        cluster = distributed.LocalCluster(n_workers=int(workers), threads_per_worker=1,
-                                           dashboard_address=None,
-                                           preload=list(WORKER_PRELOAD))
+    # the workers started with the cluster ignore Ctrl-C (a worker that its nanny
+    # restarts later is started by Python itself, as before)
+    from multiprocessing import spawn
+    python = spawn.get_executable()
+    launcher = _worker_launcher(python)
+    try:
+        if launcher:
+            spawn.set_executable(launcher)
+        with dask.config.set(unset):  # None: not set (read when the nannies are made)
+            cluster = distributed.LocalCluster(n_workers=int(workers), threads_per_worker=1,
+                                               dashboard_address=None,
+                                               preload=list(WORKER_PRELOAD))
+    finally:
+        spawn.set_executable(python)
+    # the scheduler, in this process, hooks a callback into the garbage collector; a
+    # Ctrl-C that came while it ran was "ignored in" it, and the run went on to the end
+    from distributed.gc import disable_gc_diagnosis
+    disable_gc_diagnosis(force=True)
     return distributed.Client(cluster)
 
 

@@ -93,3 +93,10 @@ OBLIQUITY = 23.439
 #: Offset from the end of an hour-ending record to its middle (records are labelled by
 #: the end of their hour; the sun and the hour of day are taken at the middle).
 HALF_HOUR = np.timedelta64(30, "m")
+
+# --- limits of a user's fixed velocity -------------------------------------------------
+#: Largest fixed deposition velocity a scenario or the apps accept [cm s-1]: the
+#: aerodynamic limit 1 / Ra over a rough forest in strong wind (Ra about 10 s/m) is
+#: about 10 cm/s, and a value above it is a typo or a unit slip (mm/s, m/s) (common
+#: practice, from memory).
+MAX_FIXED_VD_CM_S = 10.0

@@ -12,6 +12,7 @@ import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from .constants import MAX_FIXED_VD_CM_S
 from .errors import ScenarioError, suggest
 
 
@@ -333,11 +334,18 @@ def validate(raw: dict, path=None, text: str = "") -> Scenario:
                                         line=_line_of(lines, "dry.fixed_velocity", sp),
                                         column=f"dry.fixed_velocity.{sp}",
                                         expected="one of " + ", ".join(choices) + suggest(sp, choices))
-                if isinstance(v, bool) or not isinstance(v, (int, float)) or v < 0:
+                if isinstance(v, bool) or not isinstance(v, (int, float)):
                     raise ScenarioError("wrong type", file=path,
                                         line=_line_of(lines, "dry.fixed_velocity", sp),
                                         column=f"dry.fixed_velocity.{sp}", value=v,
                                         expected="a deposition velocity >= 0 in cm/s")
+                if not 0 <= v <= MAX_FIXED_VD_CM_S:
+                    raise ScenarioError("out of range", file=path,
+                                        line=_line_of(lines, "dry.fixed_velocity", sp),
+                                        column=f"dry.fixed_velocity.{sp}", value=v,
+                                        expected=f"a deposition velocity of 0 to "
+                                                 f"{MAX_FIXED_VD_CM_S:g} cm/s (a value in mm/s "
+                                                 "or m/s? the key is in cm/s)")
         _check_names(section, given, path, lines)
         objects[section] = _check_option_section(section, cls, given, path, lines)
     site_over = raw.get("sites", {})

@@ -68,6 +68,9 @@ def test_network_overview_has_trend_and_exceedance_columns(analysis_scenario):
     text = a.loc["ridge", "S_trend"]
     assert re.search(r"not valid: 2 years|no slope: [01] complete years", text), text
     assert "nan" not in text
+    # a slope says its unit (the heading's [eq/ha/yr] is the exceedance's)
+    assert "no slope" in text or "kg S/ha/yr per yr" in text, text
+    assert "[kg/ha/yr per yr]" in app.analysis_w.value
     assert a.loc["mere", "exceedance_status"] == "flagged"
     span = app.results["ridge"].table
     tot = span[(span["period"] == "span") & (span["receptor"] == "conifer_forest")

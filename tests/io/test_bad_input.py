@@ -191,6 +191,14 @@ def test_sites_duplicate_id(write):
     _raises(read_sites, p, match="column 'id': duplicate site id: got 'alpha'")
 
 
+def test_sites_id_with_a_trailing_blank(write):
+    """'beta ' in the catalogue: refused there, not as 'beta' missing from a data file."""
+    p = write("s.toml", SITES.replace('id = "beta"', 'id = "beta "'))
+    _raises(read_sites, p, match="s.toml, line 19, column 'id': site id with blanks at its "
+            "ends: got 'beta ', expected an id without leading or trailing blanks (the data "
+            "files' cells are read stripped, so 'beta' there would never match it)")
+
+
 def test_invalid_toml(write):
     p = write("s.toml", SITES.replace('name = "Alpha Test Field"', 'name = Alpha'))
     _raises(read_sites, p, match="s.toml, line 3: invalid TOML")

@@ -135,3 +135,28 @@ def test_no_tooltip_on_a_container_control():
             assert not w.tooltip and all(p.tooltip == key for p in w.children), key
         else:
             assert w.tooltip == key
+
+
+def test_a_bad_input_in_a_notebook_is_its_located_message_only(tmp_path, capsys):
+    """A notebook that opens a scenario with a bad input shows the one located message
+    (no traceback of the workbench's frames); the cell still fails, so Run All stops."""
+    from IPython.core.interactiveshell import InteractiveShell
+
+    from workbench.errors import InputError
+    from workbench.ui.controls import short_errors
+    shell = InteractiveShell.instance()
+    try:
+        assert short_errors()
+        res = shell.run_cell("from workbench.errors import InputError\n"
+                             "raise InputError('site not in the catalogue', file='p.csv', "
+                             "line=4, column='site', value='Ridge', expected='one of ridge')")
+        out = capsys.readouterr().out
+        assert isinstance(res.error_in_exec, InputError)
+        assert ("InputError: p.csv, line 4, column 'site': site not in the catalogue: got "
+                "'Ridge', expected one of ridge") in out
+        assert "Traceback" not in out and "run_cell" not in out
+        res = shell.run_cell("1 / 0")                       # other errors: as before
+        assert "Traceback" in capsys.readouterr().out
+    finally:
+        shell.set_custom_exc((), None)
+        InteractiveShell.clear_instance()

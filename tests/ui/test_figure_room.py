@@ -58,3 +58,40 @@ def test_years_readout_has_room(session):
                 SobolExplorer(session, site="ridge", years=(2021, 2021))]
     for app in apps:
         assert int(app.years_w.layout.width.rstrip("px")) >= 360, type(app).__name__
+
+
+def test_nitrogen_panel_has_room_for_its_axis_title():
+    """The sensitivity curves and the network totals: the nitrogen panel's y title and
+    ticks sit in the gap between the panels (they overlapped at the default gap)."""
+    import pandas as pd
+    sweep = pd.DataFrame({"value": [0.1, 0.2] * 6, "total": sorted(
+        [f"{e}_{p}" for e in "SN" for p in ("wet", "dry", "total")] * 2),
+        "rate": np.arange(12.0), "status": "complete"})
+    net = pd.DataFrame({"site": "ridge", "period": ["2020", "2021"] * 2,
+                        "element": ["S", "S", "N", "N"], "value": [30.0, 31.0, 250.0, 240.0],
+                        "rankable": True, "status": "complete", "missing": ""})
+    for fig in (figures.sensitivity_curves(sweep, "x", 0.1, "mmol/m2/yr"),
+                figures.network_totals(net, "mmol/m2/yr")):
+        gap = fig.layout.xaxis2.domain[0] - fig.layout.xaxis.domain[1]
+        assert gap >= figures.PANEL_GAP - 1e-9 >= 0.15
+
+
+def test_legends_of_the_velocity_and_excluded_figures_fit(session):
+    """Seen in the browser on the demo: the diurnal Vd legend of 7 species ran behind a
+    scroll bar (pNH4 hidden) in a 380 px figure, and the 'excluded' entry of the
+    reasons figure was cut.  Each figure is now tall enough for its whole legend."""
+    from workbench.ui import figures_dry, figures_wet
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        res = session.run(session.baseline, "ridge", 2021, 2021, "month")
+    rec = str(res.velocities["receptor"].values[0])
+    specs = [figures_dry.velocity_diurnal_spec(res.velocities, "ridge", rec, utc_offset_h=1.0),
+             figures_dry.resistance_breakdown_spec(res.velocities, "ridge", rec, "SO2", 1.0),
+             figures_wet.excluded_by_reason_spec(res.screened, "ridge")]
+    shown = [len({t["name"] for t in s["data"] if t.get("showlegend", True)}) for s in specs]
+    assert shown[0] == len(figures_dry.DRY_SPECIES) and shown[2] == 2
+    lines = (figures_dry.LINE_LEGEND_PX, figures_dry.LINE_LEGEND_PX, figures.LEGEND_LINE_PX)
+    for spec, entries, px in zip(specs, shown, lines):
+        need = figures.LEGEND_FRAME_PX + px * (entries + 1)
+        assert spec["layout"]["height"] >= need, (spec["layout"]["title"], entries)
+    assert figures_dry.LINE_LEGEND_PX >= 29        # measured spacing of line entries

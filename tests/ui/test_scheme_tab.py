@@ -125,3 +125,18 @@ def test_a_dry_option_updates_the_open_tab(app):
     app.unit_w.value = "eq/ha/yr"                              # a view change redraws it
     assert "eq ha-1 yr-1" in app.schemes.sentence_w.value
     app.unit_w.value = "kg/ha/yr"
+
+
+def test_fixed_velocities_are_named_beside_the_spread(app):
+    """A fixed Vd is the same under both schemes: the sentence says which gases still
+    compare them (with every gas fixed, "differs by 0 %" alone read as agreement)."""
+    app.tabs.selected_index = TABS.index("gas schemes")
+    app.controls["fixed_velocity.SO2"].value = 0.5
+    text = app.schemes.sentence_w.value
+    assert "The Vd of SO2 is fixed" in text and "only " in text and "NO2" in text
+    for g in ("HNO3", "NH3", "NO2"):
+        app.controls[f"fixed_velocity.{g}"].value = 0.5
+    assert "no gas compares the schemes" in app.schemes.sentence_w.value
+    for g in ("SO2", "HNO3", "NH3", "NO2"):
+        app.controls[f"fixed_velocity.{g}"].value = None
+    assert "fixed" not in app.schemes.sentence_w.value

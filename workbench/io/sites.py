@@ -312,6 +312,10 @@ def read_sites(path) -> SiteCatalogue:
                                  line=(starts[k] + 1) if k < len(starts) else None,
                                  column=key, expected=desc)
         sid = t["id"]
+        if isinstance(sid, str) and (sid != sid.strip() or not sid):
+            raise err("site id with blanks at its ends" if sid else "empty site id", "id", sid,
+                      "an id without leading or trailing blanks (the data files' cells are "
+                      f"read stripped, so {sid.strip()!r} there would never match it)")
         if isinstance(sid, str) and sid in seen:
             raise err("duplicate site id", "id", sid, f"ids unique (first at site {seen[sid] + 1})")
         def table_err(problem, receptor, key, value=None, expected=None, k=k):

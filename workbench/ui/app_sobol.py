@@ -68,8 +68,11 @@ class SobolExplorer(widgets.VBox):
             f"({', '.join(opt.factors)}).</p>")
         self.sobol = pd.DataFrame()
         self.tornado = pd.DataFrame()
+        self.shown = None      # (site, receptor, years) of the last analysis
         self.fig = figure_widget(self._figure())
         self.site_w.observe(self._on_site, "value")
+        for w in (self.site_w, self.receptor_w, self.years_w, self.samples_w):
+            w.observe(self._stale, "value")
         self.run_w.on_click(lambda _: self.run())
         for w in (self.output_w, self.year_w):
             w.observe(lambda c: self._draw(), "value")
@@ -88,15 +91,24 @@ class SobolExplorer(widgets.VBox):
         self.receptor_w.options = self.session.receptors(self.site_w.value)
         self.receptor_w.value = self.receptor_w.options[0]
 
+    def _stale(self, change=None):
+        """A control of the analysis changed after the last run: the figure keeps the
+        last run's site, receptor and years until "Run analysis", and says so."""
+        if self.shown:
+            site, rec, (y0, y1) = self.shown
+            self.progress.step("changed: press Run analysis (the figure shows "
+                               f"{site} · {rec} · {y0}-{y1})", 0.0)
+
     def _figure(self):
         el, quantity = OUTPUT_CHOICES[self.output_w.value]
+        site, receptor = self.shown[:2] if self.shown else (self.site_w.value,
+                                                            self.receptor_w.value)
         cols = ["site", "receptor", "period", "element", "quantity", "factor"]
         sob = self.sobol if len(self.sobol) else pd.DataFrame(
             columns=cols + ["S1", "S1_conf", "ST", "ST_conf"])
         tor = self.tornado if len(self.tornado) else pd.DataFrame(
             columns=cols + ["low", "high", "base", "output_low", "output_high", "output_base"])
-        return sensitivity_figure(sob, tor, self.site_w.value, self.receptor_w.value,
-                                  self.year_w.value, el, quantity)
+        return sensitivity_figure(sob, tor, site, receptor, self.year_w.value, el, quantity)
 
     def _draw(self):
         refresh(self.fig, self._figure())
@@ -127,6 +139,7 @@ class SobolExplorer(widgets.VBox):
         self.sobol = S.sobol(study, base, opt, kw, counted)
         self.progress.step("tornado", 0.8)
         self.tornado = S.tornado(study, base, opt, kw, counted)
+        self.shown = (site, rec, (y0, y1))
         years = sorted(set(self.sobol["period"].astype(str))) or [str(y1)]
         self.year_w.options = years
         self.year_w.value = years[-1]

@@ -274,7 +274,7 @@ def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":
                     row[f"{el}_trend"] = f"no slope: {r['n_years']} complete years"
                 else:
                     row[f"{el}_trend"] = (
-                        f"{r['sen_slope_per_yr']:+.3g} per yr (p {r['p_value']:.2g}"
+                        f"{r['sen_slope_per_yr']:+.3g} kg {el}/ha/yr per yr (p {r['p_value']:.2g}"
                         + ("" if r["valid"] else f", not valid: {r['n_years']} years") + ")")
             else:
                 row[f"{el}_trend"] = "–"

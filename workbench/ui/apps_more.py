@@ -83,6 +83,10 @@ class SensitivityExplorer(widgets.VBox):
         self.site_w.observe(self._on_site, "value")
         self.run_w.on_click(lambda _: self.run())
         self.unit_w.observe(lambda c: self.run(), "value")
+        self.shown = ""        # what the figure shows (assumption, site, receptor, years)
+        for w in (self.site_w, self.receptor_w, self.years_w, self.key_w, self.range_w,
+                  self.steps_w):
+            w.observe(self._stale, "value")
         head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w])
         super().__init__([widgets.HTML("<h3>Sensitivity explorer</h3>"), caution_box(), head,
                           self.key_w, widgets.HBox([self.range_w, self.steps_w]),
@@ -113,6 +117,12 @@ class SensitivityExplorer(widgets.VBox):
         self.receptor_w.options = self.session.receptors(self.site_w.value)
         self.receptor_w.value = self.receptor_w.options[0]
 
+    def _stale(self, change=None):
+        """A control of the sweep changed after the last sweep: the figure stays as it
+        was until "Run sweep", so the progress line says what it still shows."""
+        if self.shown:
+            self.progress.step(f"changed: press Run sweep (the figure shows {self.shown})", 0.0)
+
     def run(self):
         """Sweep the chosen assumption and redraw."""
         a = ASSUMPTIONS[self.key_w.value]
@@ -132,6 +142,9 @@ class SensitivityExplorer(widgets.VBox):
             shown = self.table.assign(value=self.table["value"].map(lambda v: names.get(v, v)))
             base_shown = names.get(base, base)
         fig = figures.sensitivity_curves(shown, a.label, base_shown, unit)
+        span = f"{years[0]}" if years[0] == years[1] else f"{years[0]}-{years[1]}"
+        self.shown = f"{a.label} · {site} · {rec} · {span}"
+        fig.update_layout(title=f"Sensitivity of the totals to {self.shown}")
         if base is None:
             b = self.session.sweep(a.key, [None], self.settings, site, *years, rec, unit)
             for col, el in enumerate(("S", "N"), start=1):
@@ -180,8 +193,9 @@ class NetworkOverview(widgets.VBox):
         self.analysis = network_analysis_table(self.results, self.session.study.catalogue())
         # no width of its own: the column stretches it (a 100 % width plus the widget's
         # margins ran 4 px past the app); a wide table scrolls inside its own box
-        self.analysis_w = widgets.HTML("<b>Trends of the annual totals and critical-load "
-                                       "exceedance of the span [eq/ha/yr]</b>"
+        self.analysis_w = widgets.HTML("<b>Trends of the annual totals [kg/ha/yr per yr] "
+                                       "and critical-load exceedance of the span "
+                                       "[eq/ha/yr]</b>"
                                        "<div style='overflow-x:auto;max-width:100%'>"
                                        + table_html(self.analysis) + "</div>")
         # the two rankings side by side where the window is wide enough, else one
@@ -221,7 +235,8 @@ class NetworkOverview(widgets.VBox):
                 self.figs[k] = figure_widget(f)
             else:
                 refresh(self.figs[k], f)
-        text = table_html(apart, "every site has complete totals in every year")
+        text = table_html(apart.rename(columns={"value": f"value [{unit}]"}),
+                          "every site has complete totals in every year")
         if create:
             self.apart_w = widgets.HTML()
         self.apart_w.value = "<b>Not ranked (partial set of species or failing completeness)</b>" + text

@@ -14,6 +14,7 @@ from dataclasses import dataclass, field
 from typing import Callable
 
 from ..budget import BudgetOptions
+from ..constants import MAX_FIXED_VD_CM_S
 from ..drydep import DryOptions
 from ..drydep.options import WETNESS_RULES
 from ..wet import WetOptions
@@ -152,7 +153,7 @@ def _fixed(sp):
         return s.replace(fixed_velocity=fv)
 
     return Assumption(f"fixed_velocity.{sp}", f"fixed Vd of {sp} [cm/s]", "fixed-velocity what-ifs",
-                      "optional_float", "budget", get, set_, bounds=(0.0, 10.0, 0.01),
+                      "optional_float", "budget", get, set_, bounds=(0.0, MAX_FIXED_VD_CM_S, 0.01),
                       sweep=(0.05, 2.0))
 
 

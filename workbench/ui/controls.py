@@ -293,14 +293,49 @@ def caution_box() -> widgets.HTML:
         "</div>")
 
 
+def short_errors() -> bool:
+    """Show the workbench's own errors (:class:`~workbench.errors.WorkbenchError`: bad
+    input, bad scenario) in this IPython session as their one located message, without
+    a traceback: the message names the file, line, column, value and what was expected,
+    and 13 lines of the workbench's own frames above it only hid it.  The cell still
+    fails (Run All stops there); any other error keeps its traceback.
+
+    Returns
+    -------
+    bool
+        False outside IPython (nothing done).
+    """
+    try:
+        from IPython import get_ipython
+    except ImportError:
+        return False
+    shell = get_ipython()
+    if shell is None:
+        return False
+    from ..errors import WorkbenchError
+
+    def one_line(self, etype, value, tb, tb_offset=None):
+        self._showtraceback(etype, value, [f"{etype.__name__}: {value}"])
+
+    shell.set_custom_exc((WorkbenchError,), one_line)
+    return True
+
+
 def open_with_progress(cls, scenario_path, **kw):
-    """Open a scenario with a progress bar shown while the inputs are read, then `cls`."""
+    """Open a scenario with a progress bar shown while the inputs are read, then `cls`
+    (a bad input or scenario is shown as its one located message, :func:`short_errors`)."""
+    from ..errors import WorkbenchError
     from .session import Session
     from IPython.display import display
+    short_errors()
     prog = Progress()
     handle = display(prog, display_id=True)
     prog.start("opening the scenario")
-    session = Session.open(scenario_path, progress=prog.step)
+    try:
+        session = Session.open(scenario_path, progress=prog.step)
+    except WorkbenchError:
+        prog.step("not opened: the message below says what to mend", 0.0)
+        raise
     prog.step("first run", 0.85)
     app = cls(session, progress=prog, **kw)
     prog.done("ready")

@@ -116,10 +116,18 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
 LEGEND_LINE_PX, LEGEND_FRAME_PX = 20, 220
 
 
-def legend_height(lines: int) -> int:
+def legend_height(lines: int, least: int = HEIGHT) -> int:
     """Figure height [px] at which a vertical legend of `lines` lines (entries and group
-    titles) shows whole, never below :data:`HEIGHT`."""
-    return max(HEIGHT, LEGEND_FRAME_PX + LEGEND_LINE_PX * (lines + 1))
+    titles) shows whole, never below `least` [px] (default :data:`HEIGHT`)."""
+    return max(least, LEGEND_FRAME_PX + LEGEND_LINE_PX * (lines + 1))
+
+
+def legend_lines(traces) -> int:
+    """Lines of the vertical legend of `traces` (plotly JSON): its title and one per
+    shown legend group or name."""
+    shown = {t.get("legendgroup") or t.get("name") for t in traces
+             if t.get("showlegend", True) is not False and (t.get("legendgroup") or t.get("name"))}
+    return len(shown) + 1
 
 
 def from_spec(spec: dict, template=TEMPLATE, fig=None) -> go.Figure:
@@ -132,6 +140,12 @@ def from_spec(spec: dict, template=TEMPLATE, fig=None) -> go.Figure:
         fig.update_layout(spec["layout"])
     fig.update_layout(template=template)
     return fig
+
+
+#: Gap between the sulfur and the nitrogen panel [share of the width]: room for the
+#: nitrogen panel's tick labels and axis title ("mmol N m-2 yr-1" beside "250" ran over
+#: the ticks at plotly's default 0.1 in a 700 px figure).
+PANEL_GAP = 0.18
 
 
 @functools.lru_cache(maxsize=None)
@@ -256,7 +270,8 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
     plotly.graph_objects.Figure
         Six traces (S and N: wet, dry, total) and two of the baseline points.
     """
-    fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"))
+    fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"),
+                        horizontal_spacing=PANEL_GAP)
     cat = not all(isinstance(v, (int, float, np.number)) and not isinstance(v, bool)
                   for v in table["value"])
     xs = [str(v) for v in table["value"]] if cat else table["value"].tolist()
@@ -303,7 +318,8 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
     plotly.graph_objects.Figure
         Per site and element: one trace of rankable years and one of the others.
     """
-    fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"))
+    fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"),
+                        horizontal_spacing=PANEL_GAP)
     sites = list(pd.unique(table["site"]))
     for col, el in enumerate(ELEMENTS, start=1):
         for i, site in enumerate(sites):

@@ -11,7 +11,7 @@ import json
 import numpy as np
 
 from ..periods import SEASON_NAMES
-from .figures import from_spec, subplot_layout
+from .figures import LEGEND_FRAME_PX, from_spec, legend_lines, subplot_layout
 from .palette import RESISTANCE_COLOURS, SPECIES_COLOURS, TEMPLATE
 from .summaries import (CM_PER_M, hour_season_slots, hourly_series, local_hour_and_season,
                         slot_statistic)
@@ -21,8 +21,11 @@ DRY_SPECIES = ("SO2", "HNO3", "NH3", "NO2", "pSO4", "pNO3", "pNH4")
 #: Names of the resistances in the legend.
 RESISTANCE_NAMES = {"ra": "Ra aerodynamic", "rb": "Rb quasi-laminar", "rc": "Rc surface",
                     "total": "Ra + Rb + Rc"}
-#: Height of the four-panel figures [px].
+#: Height of the four-panel figures [px] (more where the legend needs it).
 HEIGHT = 380
+#: Height of a legend line of a line trace [px] (29 px apart, measured in the browser:
+#: 7 species ran behind a legend scroll bar at 380 and at 400 px).
+LINE_LEGEND_PX = 30
 
 
 def _local(utc_offset_h):
@@ -50,7 +53,9 @@ def _panels(traces, utc_offset_h, y_axis: dict, title: str, legend: str) -> dict
         layout[yname].update(y_axis.get("all", {}))
     layout[axes[0][0]]["title"] = {"text": _local(utc_offset_h)}
     layout[axes[0][1]].update(y_axis.get("first", {}))
-    layout.update(title={"text": title}, height=HEIGHT, legend={"title": {"text": legend}})
+    height = max(HEIGHT, LEGEND_FRAME_PX + LINE_LEGEND_PX * legend_lines(data))
+    layout.update(title={"text": title}, height=height,     # the whole legend, no scroll bar
+                  legend={"title": {"text": legend}})
     return {"data": data, "layout": layout}
 
 

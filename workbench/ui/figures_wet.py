@@ -10,7 +10,7 @@ import numpy as np
 
 from ..wet.options import WetOptions
 from ..wet.qa import tier_limit
-from .figures import from_spec
+from .figures import from_spec, legend_height, legend_lines
 from .palette import ENVELOPE_FILL, OKABE_ITO, SAMPLE_STATUS_STYLE, TEMPLATE
 from .summaries import in_span, reason_counts
 
@@ -205,7 +205,9 @@ def excluded_by_reason_spec(screened, site=None, start=None, end=None) -> dict:
               "title": {"text": "Samples not used as they are, by reason"
                         + (f" · {site}" if site else "")},
               "xaxis": xaxis, "yaxis": {"title": {"text": "reason"}, "autorange": "reversed"},
-              "height": max(HEIGHT // 2, 60 + 28 * len(reasons)), "margin": {"l": 260}}
+              "height": max(legend_height(legend_lines(data), HEIGHT // 2),
+                            60 + 28 * len(reasons)),
+              "margin": {"l": 260}}
     return {"data": data, "layout": layout}
 
 

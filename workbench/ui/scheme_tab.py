@@ -17,6 +17,7 @@ import ipywidgets as widgets
 
 from . import figures, figures_schemes as fs
 from .controls import figure_widget, refresh, table_html
+from ..species import AIR_GASES
 from .palette import TEMPLATE
 
 #: Text of the tab before it is first opened.
@@ -96,7 +97,15 @@ class SchemeTab:
                                             site, rec, unit)
         refresh(self.figs["budget"], self._sized(fs.budget_change_spec(self.table, site, rec,
                                                                         unit)))
-        self.sentence_w.value = f"<b>{html.escape(fs.spread_sentence(self.table, unit))}</b>"
+        sentence = fs.spread_sentence(self.table, unit)
+        fixed = [g for g in AIR_GASES if g in a.settings.fixed_velocity]
+        if fixed:       # a fixed Vd replaces both schemes: a 0 % there says nothing
+            gases = [g for g in self.table.index if g.startswith("dry ") and g[4:] in AIR_GASES]
+            left = [g[4:] for g in gases if g[4:] not in fixed]
+            sentence += (f" The Vd of {', '.join(fixed)} is fixed (what-ifs), the same under "
+                         "both schemes: " + (f"only {', '.join(left)} compare the schemes."
+                                             if left else "no gas compares the schemes."))
+        self.sentence_w.value = f"<b>{html.escape(sentence)}</b>"
         shown = self.table.drop(columns="element").reset_index(names=f"[{unit}]")
         self.table_w.value = table_html(shown.rename(columns={"percent": "percent (%)"}))
         self._drawn = key
