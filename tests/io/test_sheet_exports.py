@@ -157,6 +157,19 @@ def _write(tmp_path, text, gz=False, name="met"):
     return p
 
 
+def _judged_by_the_line_reader(p, cat, monkeypatch):
+    """The chunked reader declines `p`; read_met gives the line reader's result or error."""
+    assert metfast.read_met_csv_fast(p, cat, chunk_bytes=3000) is None
+    try:
+        line = _line_reader(monkeypatch, p, cat)
+    except InputError as exc:
+        with pytest.raises(InputError) as err:
+            read_met(p, cat)
+        assert str(err.value) == str(exc)
+    else:
+        assert_same(read_met(p, cat), line)
+
+
 @pytest.mark.parametrize("n_threads", [1, 2])
 @pytest.mark.parametrize("variant", list(VARIANTS))
 def test_a_spreadsheet_export_reads_as_the_line_reader_and_as_the_plain_file(
@@ -281,15 +294,7 @@ def test_truly_odd_files_still_go_to_the_line_reader(tmp_path, cat, monkeypatch,
     text = _quote_all(_plain()).replace("\n", "\r\n")
     p = _write(tmp_path, change(text))
     assert change(text) != text
-    assert metfast.read_met_csv_fast(p, cat, chunk_bytes=3000) is None
-    try:
-        line = _line_reader(monkeypatch, p, cat)
-    except InputError as exc:
-        with pytest.raises(InputError) as err:
-            read_met(p, cat)
-        assert str(err.value) == str(exc)
-    else:
-        assert_same(read_met(p, cat), line)
+    _judged_by_the_line_reader(p, cat, monkeypatch)
 
 
 @pytest.mark.parametrize("seed", range(6))
@@ -441,15 +446,7 @@ def test_free_text_files_that_only_the_line_reader_judges(tmp_path, cat, monkeyp
     text = _with_notes(_plain())
     assert change(text) != text
     p = _write(tmp_path, change(text))
-    assert metfast.read_met_csv_fast(p, cat, chunk_bytes=3000) is None
-    try:
-        line = _line_reader(monkeypatch, p, cat)
-    except InputError as exc:
-        with pytest.raises(InputError) as err:
-            read_met(p, cat)
-        assert str(err.value) == str(exc)
-    else:
-        assert_same(read_met(p, cat), line)
+    _judged_by_the_line_reader(p, cat, monkeypatch)
 
 
 def test_the_demo_met_saved_from_a_sheet_as_the_line_reader(tmp_path, monkeypatch, threads):
