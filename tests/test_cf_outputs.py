@@ -145,3 +145,22 @@ def test_same_numbers_in_every_file(runs, run):
             checked += 1
     assert checked > 20
     assert {"partial"} <= set(tot["status"])        # fell's N: NO2 not measured
+
+
+def test_compared_schemes_are_not_mixed(runs):
+    """With compare_schemes, budget.csv has both schemes; the report's tables, the
+    exceedance and trend tables hold the chosen scheme once (before: every span and
+    exceedance row twice, unlabelled, and trends fitted on both schemes' years)."""
+    d = runs["bidirectional"]
+    b = pd.read_csv(d / "budget.csv", dtype={"period": str}, low_memory=False)
+    years = pd.to_datetime(b["period_start"]).dt.year.nunique()
+    ex = pd.read_csv(d / "exceedance.csv", dtype={"period": str})
+    assert not ex.duplicated(["site", "receptor", "period"]).any()
+    tr = pd.read_csv(d / "trends.csv")
+    assert (tr["n_years"].dropna() <= years).all()
+    tables = pd.read_html(d / "report.html")
+    span = tables[0]
+    assert not span.duplicated(["site", "receptor", "element"]).any()
+    html = (d / "report.html").read_text()
+    assert "Gas scheme comparison" in html and "zhang2003" in html and "wesely1989" in html
+    assert "NH3 net exchange beside deposition only" in html

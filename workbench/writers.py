@@ -281,6 +281,8 @@ def write_analysis_tables(result, study, scenario, path):
     """exceedance.csv, trends.csv and the handover tables beside `path`; returns their
     names (:func:`workbench.analysis.outputs.write_analysis`)."""
     from .analysis.outputs import write_analysis
+    from .report import chosen_scheme
+    result, _ = chosen_scheme(result)     # [dry] compare_schemes: the chosen scheme's rows
     return list(write_analysis(result, study, scenario, Path(path).parent, atomic_write))
 
 
