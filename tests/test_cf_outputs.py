@@ -164,3 +164,44 @@ def test_compared_schemes_are_not_mixed(runs):
     html = (d / "report.html").read_text()
     assert "Gas scheme comparison" in html and "zhang2003" in html and "wesely1989" in html
     assert "NH3 net exchange beside deposition only" in html
+
+
+def test_derived_sums_carry_their_status(runs):
+    """summary.csv: oxidized N at fell lacks NO2 (not measured there), so it is
+    `partial` naming NO2, like N_total; reduced N, which has no NO2, is not partial on
+    its account. No derived sum with a missing part reads `complete`."""
+    s = pd.read_csv(runs["plain"] / "summary.csv", keep_default_na=False)
+    fell = s[s["site"] == "fell"]
+    assert (fell["oxidized_N_status"] == "partial").all()
+    assert (fell["oxidized_N_missing_components"] == "NO2").all()
+    assert (fell["potential_acidity_status"] == fell["N_total_status"]).all()
+    assert not fell["reduced_N_missing_components"].str.contains("NO2").any()
+    for name in ("oxidized_N", "reduced_N", "potential_acidity"):
+        lacks = s[f"{name}_missing_components"] != ""
+        assert not (s.loc[lacks, f"{name}_status"] == "complete").any(), name
+    assert (s.loc[s["site"] == "fell", "N_total_status"] == "partial").all()
+
+
+def _dictionary() -> list:
+    """Patterns of the column names in docs/data_formats.md section 6 (placeholders
+    such as ``<ion>`` match any text)."""
+    text = (Path(__file__).parents[1] / "docs" / "data_formats.md").read_text()
+    section = text.split("## 6. Run folder: column dictionary", 1)[1].split("\n## ", 1)[0]
+    names = set(re.findall(r"`([^`]+)`", section))
+    return [re.compile("^" + re.sub(r"<[a-z]+>", ".+", re.escape(n).replace(r"\<", "<")
+                                    .replace(r"\>", ">")) + "$") for n in names]
+
+
+@pytest.mark.parametrize("run", ["plain", "bidirectional"])
+def test_every_csv_column_is_in_the_dictionary(runs, run):
+    """Every column of every CSV of the run folder has its unit and meaning in the
+    documented dictionary (docs/data_formats.md section 6)."""
+    patterns = _dictionary()
+    assert len(patterns) > 50
+    lacking = {}
+    for f in sorted(runs[run].glob("*.csv")):
+        cols = pd.read_csv(f, nrows=0).columns
+        miss = [c for c in cols if not any(p.match(c) for p in patterns)]
+        if miss:
+            lacking[f.name] = miss
+    assert not lacking, lacking

@@ -219,8 +219,46 @@ def write_budget_csv(result, study, scenario, path):
     return path
 
 
+#: The components behind the derived sums of summary.csv (docs/budget.md, "Components
+#: and units"); the potential acidity takes every S and N component.
+DERIVED_PARTS = {"oxidized_N": ("NO3", "HNO3", "pNO3", "NO2"),
+                 "reduced_N": ("NH4", "NH3", "pNH4"),
+                 "potential_acidity": ("SO4", "SO2", "pSO4", "NO3", "HNO3", "pNO3", "NO2",
+                                       "NH4", "NH3", "pNH4")}
+
+
+def derived_status(table: pd.DataFrame) -> pd.DataFrame:
+    """Status and missing components of the derived sums (oxidized N, reduced N,
+    potential acidity) per (site, receptor, period), by the rule of every sum
+    (:func:`workbench.budget.combine_status`): without them an oxidized N that lacks an
+    unmeasured NO2 read as complete in summary.csv.
+
+    Returns
+    -------
+    DataFrame
+        Columns site, receptor, period, ``<sum>_status`` and ``<sum>_missing_components``.
+    """
+    from .budget import combine_status
+    comp = table[(table["species"] != "all") & (table["period"] != "span")]
+    key = ["site", "receptor", "period"]
+    st = comp.pivot_table(index=key, columns="species", values="status", aggfunc="first",
+                          observed=True)
+    out = pd.DataFrame(index=st.index)
+    for name, parts in DERIVED_PARTS.items():
+        sub = st.reindex(columns=list(parts)).fillna("missing").to_numpy(object)
+        out[f"{name}_status"], _ = combine_status(sub)
+        out[f"{name}_missing_components"] = [
+            " ".join(p for p, v in zip(parts, row) if v == "missing") for row in sub]
+    return out.reset_index()
+
+
 def write_summary_csv(result, study, scenario, path):
-    _csv(summary_table(result), path)
+    from .report import chosen_scheme
+    frame = summary_table(result)
+    extra = derived_status(chosen_scheme(result)[0].table)
+    frame = frame.merge(extra.astype({"period": frame["period"].dtype}),
+                        on=["site", "receptor", "period"], how="left")
+    _csv(frame, path)
     return path
 
 
