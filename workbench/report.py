@@ -216,6 +216,16 @@ def _nh3_html(result) -> list:
             "deposition-only.</p>", _table_html(frame)]
 
 
+def _run_line(scenario) -> str:
+    """Scenario file and time of writing: which run a printed page belongs to."""
+    import datetime as dt
+    now = dt.datetime.now(dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    path = getattr(scenario, "path", None)
+    where = f" · scenario {html.escape(str(path))}" if path else ""
+    return (f"{where} · written {now} · inputs with their SHA-256 and every option in "
+            "provenance.json")
+
+
 def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURES) -> str:
     """HTML text of the report: budget tables, figures, QA summary, omissions, cautions.
 
@@ -236,7 +246,8 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
         parts.append("<p>No year passes completeness.</p>")
     parts.extend(_exceedance_html(result, study))
     parts.append("<h2>Totals per period [kg/ha/yr of S or N]</h2>")
-    parts.append("<p>Marks: <b>f</b> flagged (fails completeness), <b>p</b> partial (a "
+    parts.append("<p>Marks: <b>f</b> flagged (fails completeness, or holds something to read with "
+                 "care: the notes below say which), <b>p</b> partial (a "
                  "component has no data), <b>~</b> filled, <b>–</b> missing. Exact values, "
                  "eq/ha and every component are in budget.csv.</p>")
     per = totals[totals["period"] != "span"]
@@ -330,6 +341,6 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
              "tr,.js-plotly-plot{break-inside:avoid}details{display:block}}")
     return (f"<!DOCTYPE html><html><head><meta charset='utf-8'><title>{title}</title>"
             f"<style>{style}</style></head><body><h1>{title}</h1>"
-            f"<p>deposition workbench {__version__}</p>"
+            f"<p>deposition workbench {__version__}{_run_line(scenario)}</p>"
             f"<p class='caution'><b>Caution.</b> {html.escape(CAUTION)}</p>{body}"
             f"<p class='caution'>{html.escape(CAUTION)}</p></body></html>")
