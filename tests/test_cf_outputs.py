@@ -144,6 +144,10 @@ def test_same_numbers_in_every_file(runs, run):
             assert cell in html, (site, rec, per, el, cell)
             checked += 1
     assert checked > 20
+    for name in ("oxidized_N", "reduced_N", "potential_acidity"):    # derived sums
+        col = f"{name}_status"
+        nc = ds[col].to_series().reindex(_keyed(s).index)
+        assert (nc == _keyed(s)[col]).all(), col
     assert {"partial"} <= set(tot["status"])        # fell's N: NO2 not measured
 
 

@@ -149,6 +149,15 @@ def budget_dataset(result) -> xr.Dataset:
     ds = result.budget.copy()
     ds["deposition"].attrs.update({"long_name": "deposition as amount of S or N (element basis)"})
     ds = xr.merge([ds, result.derived], compat="override")
+    from .report import chosen_scheme
+    st = derived_status(chosen_scheme(result)[0].table).set_index(["site", "receptor", "period"])
+    for col in st.columns:
+        v = st[col].to_xarray().reindex(site=ds["site"], receptor=ds["receptor"],
+                                        period=ds["period"]).fillna("")
+        ds[col] = v.astype(object)
+        ds[col].attrs["long_name"] = (f"{col.split('_status')[0]}: status (docs/budget.md)"
+                                      if col.endswith("_status") else
+                                      f"{col.split('_missing')[0]}: components without data")
     ds["period_start"].attrs["long_name"] = "start of the period (UTC)"
     ds["period_end"].attrs["long_name"] = "end of the period, exclusive (UTC)"
     return ds
