@@ -21,6 +21,7 @@ from workbench.cli import main
 sys.path.insert(0, str(Path(__file__).parent))
 from cf_check import cf_check                       # noqa: E402
 from ui.demo_subset import write_demo_subset        # noqa: E402
+from test_grid import _write as grid_write, site     # noqa: E402,F401  (site: a fixture)
 
 #: Molar masses [kg mol-1] (IUPAC standard atomic weights, abridged: S 32.06, N 14.007).
 MOLAR = {"S": 32.06e-3, "N": 14.007e-3}
@@ -58,14 +59,10 @@ def test_run_folder_netcdf_passes_cfchecker(runs, run, name, tmp_path):
                for w in res["warnings"]), res["warnings"]
 
 
-def test_grid_nc_passes_cfchecker(runs, tmp_path):
-    """`workbench grid` on the demo grid: grid.nc has no CF error (CF 1.8)."""
-    import test_grid as tg
-    site = tg.site.__wrapped__(tmp_path_factory=_Factory(tmp_path)) \
-        if hasattr(tg.site, "__wrapped__") else None
-    if site is None:
-        pytest.skip("test_grid's site fixture is not callable here")
-    tg._write(tmp_path / "in", site)
+def test_grid_nc_passes_cfchecker(site, tmp_path):
+    """`workbench grid` on the grid of tests/test_grid.py: grid.nc has no CF error
+    (CF 1.8, cfchecker); warnings listed."""
+    grid_write(tmp_path / "in", site)
     (tmp_path / "in" / "scenario.toml").write_text(
         '[grid]\nmet = "met.nc"\nair = "air.nc"\nland_use = "land_use.nc"\n'
         '[period]\nresolution = "month"\n')
@@ -75,16 +72,6 @@ def test_grid_nc_passes_cfchecker(runs, tmp_path):
     for w in res["warnings"]:
         print(f"grid.nc CF warning: {w}")
     assert not res["errors"], res["errors"]
-
-
-class _Factory:
-    def __init__(self, path):
-        self.path = path
-
-    def mktemp(self, name):
-        p = self.path / name
-        p.mkdir()
-        return p
 
 
 def test_every_unit_is_udunits_and_names_its_basis(runs):
