@@ -135,6 +135,97 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES) -> tuple:
     return out, first
 
 
+def chosen_scheme(result):
+    """(result showing the chosen gas scheme only, every scheme's table or None).
+
+    With ``[dry] compare_schemes`` the result's table holds the rows of every scheme
+    (:func:`workbench.comparison.run_compared`); the report's tables are those of the
+    chosen scheme, and the other schemes appear in their own section only."""
+    import copy
+    t = result.table
+    if "scheme" not in t:
+        return result, None
+    dry = result.options.get("dry")
+    chosen = getattr(dry, "gas_scheme", None) or str(t["scheme"].iloc[0])
+    view = copy.copy(result)
+    view.table = t[t["scheme"] == chosen].drop(columns="scheme").reset_index(drop=True)
+    return view, t
+
+
+def _settings_html(result, all_schemes) -> str:
+    """The choices a reader must know before reading any number: gas scheme, NH3."""
+    dry = result.options.get("dry")
+    scheme = getattr(dry, "gas_scheme", "?")
+    nh3 = getattr(dry, "nh3_treatment", "deposition_only")
+    text = f"<b>Gas scheme:</b> {html.escape(str(scheme))}"
+    if all_schemes is not None:
+        others = [s for s in dict.fromkeys(all_schemes["scheme"]) if s != scheme]
+        text += (f" (the tables below); also computed: {html.escape(', '.join(others))}, "
+                 "see <a href='#schemes'>Gas scheme comparison</a>")
+    text += ". <b>NH3:</b> " + (
+        "net exchange (canopy compensation point; an emission is negative), with the "
+        "deposition-only figure beside it in <a href='#nh3'>NH3 net exchange</a>"
+        if nh3 == "bidirectional" else "deposition only (no emission from the canopy)")
+    return f"<p class='settings'>{text}.</p>"
+
+
+def _schemes_html(all_schemes) -> list:
+    """Whole-span S and N totals under each gas scheme, side by side."""
+    if all_schemes is None:
+        return []
+    t = all_schemes
+    span = t[(t["species"] == "all") & (t["pathway"] == "total") & (t["period"] == "span")]
+    key = ["site", "receptor", "element"]
+    names = list(dict.fromkeys(t["scheme"]))
+    rows = pd.MultiIndex.from_frame(span[key].drop_duplicates())   # the pairs that exist
+    wide = span.set_index(key + ["scheme"])["flux_kg_ha_yr"].unstack("scheme") \
+        .reindex(index=rows, columns=names)
+    stat = span.set_index(key + ["scheme"])["status"].unstack("scheme") \
+        .reindex(index=rows, columns=names)
+    out = pd.DataFrame(index=wide.index)
+    for n in names:
+        out[f"{n} [kg/ha/yr]"] = wide[n]
+        out[f"{n} status"] = stat[n].fillna("missing")
+    if len(names) > 1:
+        out[f"{names[1]} - {names[0]} [%]"] = 100 * (wide[names[1]] / wide[names[0]] - 1)
+    return ["<h2 id='schemes'>Gas scheme comparison: whole-span totals [kg/ha/yr of S or N]</h2>",
+            "<p>The same inputs under each gas scheme: the difference is a structural "
+            "uncertainty of dry deposition (two published schemes, both defensible). "
+            "budget.csv has every row of every scheme (column <code>scheme</code>); "
+            "summary.csv, budget.nc and the rest of this report are the chosen scheme's.</p>",
+            _table_html(out.reset_index())]
+
+
+def _nh3_html(result) -> list:
+    """NH3 net exchange beside the deposition-only figure, per period (bidirectional)."""
+    t = result.table
+    if "nh3_deposition_only_kg_ha" not in t:
+        return []
+    rows = t[(t["species"] == "NH3") & (t["period"] != "span")]
+    if rows.empty or not (rows.get("nh3_figure") == "net").any():
+        return []
+    cols = ["site", "receptor", "period", "flux_kg_ha", "nh3_deposition_only_kg_ha",
+            "status", "note"]
+    frame = rows[cols].rename(columns={"flux_kg_ha": "NH3 net [kg N/ha]",
+                                       "nh3_deposition_only_kg_ha":
+                                       "NH3 deposition only [kg N/ha]"})
+    return ["<h2 id='nh3'>NH3 net exchange beside deposition only [kg N/ha per period]</h2>",
+            "<p>The N totals above use the net (negative: the canopy emits). A period whose "
+            "net is an emission while its deposition-only figure is a deposition is "
+            "<b>flagged</b> (<code>nh3_net_emission</code>): its total N is not "
+            "deposition-only.</p>", _table_html(frame)]
+
+
+def _run_line(scenario) -> str:
+    """Scenario file and time of writing: which run a printed page belongs to."""
+    import datetime as dt
+    now = dt.datetime.now(dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    path = getattr(scenario, "path", None)
+    where = f" · scenario {html.escape(str(path))}" if path else ""
+    return (f"{where} · written {now} · inputs with their SHA-256 and every option in "
+            "provenance.json")
+
+
 def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURES) -> str:
     """HTML text of the report: budget tables, figures, QA summary, omissions, cautions.
 
@@ -142,7 +233,8 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     tables keep every site."""
     import plotly.io as pio
     from .ui.figures import budget_bars
-    parts = []
+    result, all_schemes = chosen_scheme(result)
+    parts = [_settings_html(result, all_schemes)]
     t = result.table
     totals = t[(t["species"] == "all") & (t["pathway"] == "total")]
     span = totals[totals["period"] == "span"]
@@ -154,11 +246,14 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
         parts.append("<p>No year passes completeness.</p>")
     parts.extend(_exceedance_html(result, study))
     parts.append("<h2>Totals per period [kg/ha/yr of S or N]</h2>")
-    parts.append("<p>Marks: <b>f</b> flagged (fails completeness), <b>p</b> partial (a "
+    parts.append("<p>Marks: <b>f</b> flagged (fails completeness, or holds something to read with "
+                 "care: the notes below say which), <b>p</b> partial (a "
                  "component has no data), <b>~</b> filled, <b>–</b> missing. Exact values, "
                  "eq/ha and every component are in budget.csv.</p>")
     per = totals[totals["period"] != "span"]
     parts.append(_pivot_html(per))
+    parts.extend(_schemes_html(all_schemes))
+    parts.extend(_nh3_html(result))
     from .analysis.uncertainty import report_section
     parts.extend(report_section(t, _table_html))
     parts.append("<h2>Dry nitrogen: the gas/particle bracket [kg N/ha per period]</h2>")
@@ -169,10 +264,15 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     if "dry_N_all_gas_kg_ha" in dv:
         frame = dv[["dry_N_all_gas_kg_ha", "dry_N_all_particle_kg_ha"]].to_dataframe().reset_index()
         meas = t[(t["element"] == "N") & (t["pathway"] == "dry") & (t["species"] == "all")
-                 & (t["period"] != "span")][["site", "receptor", "period", "flux_kg_ha"]]
+                 & (t["period"] != "span")][["site", "receptor", "period", "flux_kg_ha",
+                                              "status", "missing_components"]]
         frame = frame.merge(meas.rename(columns={"flux_kg_ha": "dry_N_as_measured_kg_ha"}),
                             on=["site", "receptor", "period"], how="inner")
+        parts.append("<p>The status and missing components are those of the measured dry N; "
+                     "a bracket shown as – could not be computed for that period (budget.nc has no "
+                     "value either); the measured figure stands.</p>")
         parts.append(_table_html(frame[["site", "receptor", "period", "dry_N_as_measured_kg_ha",
+                                        "status", "missing_components",
                                         "dry_N_all_gas_kg_ha", "dry_N_all_particle_kg_ha"]]))
     notes_col = t["note"].dropna() if "note" in t else pd.Series(dtype=str)
     notes_col = notes_col[notes_col != ""]
@@ -236,9 +336,11 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     style = ("body{font-family:sans-serif;max-width:1100px;margin:auto;padding:1em;color:#222}"
              ".tab{border-collapse:collapse;font-size:85%}.tab td,.tab th{padding:2px 6px;"
              "border-bottom:1px solid #ddd}.caution{background:#fff6e0;border-left:4px solid "
-             "#E69F00;padding:.6em 1em}")
+             "#E69F00;padding:.6em 1em}.settings{background:#eef4fa;padding:.4em 1em}"
+             "@media print{body{max-width:none;font-size:10pt}.tab{font-size:8pt}"
+             "tr,.js-plotly-plot{break-inside:avoid}details{display:block}}")
     return (f"<!DOCTYPE html><html><head><meta charset='utf-8'><title>{title}</title>"
             f"<style>{style}</style></head><body><h1>{title}</h1>"
-            f"<p>deposition workbench {__version__}</p>"
+            f"<p>deposition workbench {__version__}{_run_line(scenario)}</p>"
             f"<p class='caution'><b>Caution.</b> {html.escape(CAUTION)}</p>{body}"
             f"<p class='caution'>{html.escape(CAUTION)}</p></body></html>")

@@ -63,8 +63,80 @@ def _netcdf_ready(ds: xr.Dataset) -> xr.Dataset:
     return ds
 
 
+#: long_name (and units where missing) of the variables of budget.nc and velocities.nc
+#: that the budget does not name itself (checked by cfchecker, tests/test_cf_outputs.py).
+LONG_NAMES = {
+    "site": ("site id", None), "receptor": ("receptor surface (land-use class)", None),
+    "wet_ion": ("ion of the precipitation chemistry (nss: non-sea-salt part)", None),
+    "air_species": ("species of the air concentrations", None),
+    "component": ("budget component: element/pathway/species", None),
+    "species": ("species of the component", None),
+    "pathway": ("pathway of the component (wet or dry)", None),
+    "element": ("element the component is counted as (S or N)", None),
+    "total": ("sum of components: element_pathway", None),
+    "period": ("label of the reporting period", None),
+    "period_hours": ("length of the period", "h"),
+    "annual_factor": ("factor from the period's deposition to a yearly rate (hours of the "
+                      "year over hours of the period)", "1"),
+    "note": ("reason in words for the component's status (docs/budget.md)", None),
+    "status": ("status of the component: complete, filled, flagged, partial or missing "
+               "(docs/budget.md)", None),
+    "total_status": ("status of the sum: complete, filled, flagged, partial or missing "
+                     "(docs/budget.md)", None),
+    "total_completeness": ("completeness of the sum (smallest fraction of its present "
+                           "components)", "1"),
+    "bracket_nitrate_all_gas": ("dry deposition of the nitrate pair (HNO3 + pNO3) as N, "
+                                "all taken as HNO3", None),
+    "bracket_nitrate_all_particle": ("dry deposition of the nitrate pair (HNO3 + pNO3) as N, "
+                                     "all taken as pNO3", None),
+    "bracket_ammonium_all_gas": ("dry deposition of the ammonium pair (NH3 + pNH4) as N, "
+                                 "all taken as NH3", None),
+    "bracket_ammonium_all_particle": ("dry deposition of the ammonium pair (NH3 + pNH4) as "
+                                      "N, all taken as pNH4", None),
+    "oxidized_N_eq_ha": ("oxidized N deposition (NO3, HNO3, pNO3, NO2)", None),
+    "reduced_N_eq_ha": ("reduced N deposition (NH4, NH3, pNH4)", None),
+    "S_dry_share": ("dry share of the S total", "1"),
+    "S_wet_share": ("wet share of the S total", "1"),
+    "N_dry_share": ("dry share of the N total", "1"),
+    "N_wet_share": ("wet share of the N total", "1"),
+    "active": ("the site asks for this receptor surface", None),
+    "time": ("end of the hour (UTC)", None),
+    "surface": ("site/receptor pair", None),
+    "surface_site": ("site of the surface", None),
+    "surface_receptor": ("receptor of the surface (land-use class)", None),
+}
+
+#: Units written in the trade's way that are not UDUNITS (CF 1.8 section 3.1): an element
+#: named inside the unit ("kg N ha-1" would read as kilogram x newton per hectare) and
+#: equivalents ("eq", not a UDUNITS unit; an equivalent is a mole of charge).
+_CF_UNITS = {"kg N ha-1": ("kg ha-1", " [mass of N]"), "kg S ha-1": ("kg ha-1", " [mass of S]"),
+             "ug N m-3": ("ug m-3", " [mass of N]"),
+             "eq ha-1": ("mol ha-1", " [moles of charge: equivalents per hectare]")}
+
+
+def cf_attributes(ds: xr.Dataset) -> xr.Dataset:
+    """Attributes that CF 1.8 asks for (sections 3, 3.1, 3.3): a long_name on every
+    variable, UDUNITS units (the element or the charge basis moves into long_name), no
+    standard_name outside the CF standard name table."""
+    ds = ds.copy()
+    for name, var in ds.variables.items():
+        a = dict(var.attrs)
+        if name in LONG_NAMES:
+            long_name, units = LONG_NAMES[name]
+            a.setdefault("long_name", long_name)
+            if units is not None:
+                a.setdefault("units", units)
+        if a.get("units") in _CF_UNITS:
+            units, what = _CF_UNITS[a["units"]]
+            a["long_name"] = a.get("long_name", name) + what
+            a["units_in_tables"] = a["units"]        # the unit as in budget.csv's docs
+            a["units"] = units
+        var.attrs = a                                 # a copy: the result keeps its own
+    return ds
+
+
 def write_netcdf(ds: xr.Dataset, path: Path, title: str):
-    ds = _netcdf_ready(ds)
+    ds = _netcdf_ready(cf_attributes(ds))
     ds.attrs.update({"Conventions": "CF-1.8", "title": title,
                      "institution": "deposition workbench user",
                      "source": f"deposition workbench {__version__}",
@@ -75,9 +147,17 @@ def write_netcdf(ds: xr.Dataset, path: Path, title: str):
 def budget_dataset(result) -> xr.Dataset:
     """The budget as a CF-style Dataset (component coordinate kept as text)."""
     ds = result.budget.copy()
-    ds["deposition"].attrs.update({"standard_name": "amount_of_element_deposited",
-                                   "long_name": "deposition as amount of S or N (element basis)"})
+    ds["deposition"].attrs.update({"long_name": "deposition as amount of S or N (element basis)"})
     ds = xr.merge([ds, result.derived], compat="override")
+    from .report import chosen_scheme
+    st = derived_status(chosen_scheme(result)[0].table).set_index(["site", "receptor", "period"])
+    for col in st.columns:
+        v = st[col].to_xarray().reindex(site=ds["site"], receptor=ds["receptor"],
+                                        period=ds["period"]).fillna("")
+        ds[col] = v.astype(object)
+        ds[col].attrs["long_name"] = (f"{col.split('_status')[0]}: status (docs/budget.md)"
+                                      if col.endswith("_status") else
+                                      f"{col.split('_missing')[0]}: components without data")
     ds["period_start"].attrs["long_name"] = "start of the period (UTC)"
     ds["period_end"].attrs["long_name"] = "end of the period, exclusive (UTC)"
     return ds
@@ -148,8 +228,46 @@ def write_budget_csv(result, study, scenario, path):
     return path
 
 
+#: The components behind the derived sums of summary.csv (docs/budget.md, "Components
+#: and units"); the potential acidity takes every S and N component.
+DERIVED_PARTS = {"oxidized_N": ("NO3", "HNO3", "pNO3", "NO2"),
+                 "reduced_N": ("NH4", "NH3", "pNH4"),
+                 "potential_acidity": ("SO4", "SO2", "pSO4", "NO3", "HNO3", "pNO3", "NO2",
+                                       "NH4", "NH3", "pNH4")}
+
+
+def derived_status(table: pd.DataFrame) -> pd.DataFrame:
+    """Status and missing components of the derived sums (oxidized N, reduced N,
+    potential acidity) per (site, receptor, period), by the rule of every sum
+    (:func:`workbench.budget.combine_status`): without them an oxidized N that lacks an
+    unmeasured NO2 read as complete in summary.csv.
+
+    Returns
+    -------
+    DataFrame
+        Columns site, receptor, period, ``<sum>_status`` and ``<sum>_missing_components``.
+    """
+    from .budget import combine_status
+    comp = table[(table["species"] != "all") & (table["period"] != "span")]
+    key = ["site", "receptor", "period"]
+    st = comp.pivot_table(index=key, columns="species", values="status", aggfunc="first",
+                          observed=True)
+    out = pd.DataFrame(index=st.index)
+    for name, parts in DERIVED_PARTS.items():
+        sub = st.reindex(columns=list(parts)).fillna("missing").to_numpy(object)
+        out[f"{name}_status"], _ = combine_status(sub)
+        out[f"{name}_missing_components"] = [
+            " ".join(p for p, v in zip(parts, row) if v == "missing") for row in sub]
+    return out.reset_index()
+
+
 def write_summary_csv(result, study, scenario, path):
-    _csv(summary_table(result), path)
+    from .report import chosen_scheme
+    frame = summary_table(result)
+    extra = derived_status(chosen_scheme(result)[0].table)
+    frame = frame.merge(extra.astype({"period": frame["period"].dtype}),
+                        on=["site", "receptor", "period"], how="left")
+    _csv(frame, path)
     return path
 
 
@@ -210,6 +328,8 @@ def write_analysis_tables(result, study, scenario, path):
     """exceedance.csv, trends.csv and the handover tables beside `path`; returns their
     names (:func:`workbench.analysis.outputs.write_analysis`)."""
     from .analysis.outputs import write_analysis
+    from .report import chosen_scheme
+    result, _ = chosen_scheme(result)     # [dry] compare_schemes: the chosen scheme's rows
     return list(write_analysis(result, study, scenario, Path(path).parent, atomic_write))
 
 
