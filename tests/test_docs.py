@@ -214,7 +214,10 @@ def _scenario_blocks():
 def test_scenario_examples_load(block, tmp_path):
     """A doc's example scenario loads, with the demo's inputs behind its paths (empty
     files stand for the others: only the keys, types and values are judged)."""
-    import tomllib
+    try:
+        import tomllib
+    except ImportError:               # Python 3.10 (pyproject.toml's tomli)
+        import tomli as tomllib
     demo = ROOT / "demo_data"
     raw = tomllib.loads(block)
     paths = [*raw.get("inputs", {}).values(), *raw.get("grid", {}).values()]
@@ -388,3 +391,16 @@ def test_site_catalogue_example_reads(tmp_path):
     (tmp_path / "sites.toml").write_text(block)
     cat = read_sites(tmp_path / "sites.toml")
     assert "ridge" in cat.ids
+
+
+def test_flag_map_example_reads(tmp_path):
+    """The lab-code example of docs/data_formats.md reads with the flag-map reader and
+    means what the doc says (a list is several words, ``[]`` none)."""
+    from workbench.flags import read_flag_map
+    text = (ROOT / "docs" / "data_formats.md").read_text()
+    block = next(b for b in _blocks(text, ("toml",)) if "[codes]" in b)
+    (tmp_path / "lab_codes.toml").write_text(block)
+    codes = read_flag_map(tmp_path / "lab_codes.toml")
+    assert codes["K1"] == ("contaminated",)
+    assert codes["EST2"] == ("depth_estimated", "contaminated")
+    assert codes["ok"] == ()
