@@ -404,3 +404,16 @@ def test_flag_map_example_reads(tmp_path):
     assert codes["K1"] == ("contaminated",)
     assert codes["EST2"] == ("depth_estimated", "contaminated")
     assert codes["ok"] == ()
+
+
+def test_readme_output_files_are_written():
+    """Every output file README.md names (``budget.csv``, ``grid.nc``...) is a name the
+    package writes: a literal in workbench/ (or the demo's input files)."""
+    source = "\n".join(p.read_text() for p in (ROOT / "workbench").rglob("*.py"))
+    demo = {p.name for p in (ROOT / "demo_data").iterdir()}
+    names = {n for span in _spans((ROOT / "README.md").read_text())
+             for n in re.findall(r"(?<![\w/.-])([\w-]+\.(?:csv|nc|html|json))\b", span)}
+    assert {"budget.csv", "report.html", "grid.nc", "sensitivity.csv"} <= names
+    missing = sorted(n for n in names - demo
+                     if f'"{n}"' not in source and f"'{n}'" not in source)
+    assert not missing, f"README.md names outputs the package never writes: {missing}"
