@@ -45,7 +45,8 @@ def _blocks(text, langs):
 def _spans(text):
     """Inline code spans (joined over line breaks) and the lines of shell blocks."""
     prose = FENCE.sub("", text)
-    spans = [" ".join(m.group(1).split()) for m in re.finditer(r"`([^`]+)`", prose)]
+    spans = [" ".join(m.group(2).split())        # ``x`` as well as `x` (CommonMark)
+             for m in re.finditer(r"(?<!`)(`+)(?!`)(.+?)(?<!`)\1(?!`)", prose, re.S)]
     for block in _blocks(text, ("bash", "sh", "console", "")):
         spans += [line.split("#")[0].strip() for line in block.splitlines()]
     return [s for s in spans if s]
@@ -417,3 +418,49 @@ def test_readme_output_files_are_written():
     missing = sorted(n for n in names - demo
                      if f'"{n}"' not in source and f"'{n}'" not in source)
     assert not missing, f"README.md names outputs the package never writes: {missing}"
+
+
+#: Option field -> the sections that have it, for a bare ``key = value`` (a key that is
+#: also a site override, e.g. ``ustar_transfer``, may be either: left out).
+OWNER = {}
+for _sec, _cls in option_sections().items():
+    for _f in dataclasses.fields(_cls):
+        if _f.name not in SITE_OVERRIDES:
+            OWNER.setdefault(_f.name, []).append(_sec)
+
+
+def _setting_spans():
+    """``[section] key = value`` spans of an options section whose value is TOML (not
+    ``...``)."""
+    try:
+        import tomllib
+    except ImportError:
+        import tomli as tomllib
+    out = {}
+    for doc in DOCS:
+        for span in _spans(doc.read_text()):
+            bare = re.fullmatch(r"(\w+) = .+", span)
+            if bare and len(OWNER.get(bare.group(1), ())) == 1:     # a bare option
+                span = f"[{OWNER[bare.group(1)][0]}] {span}"
+            m = re.fullmatch(r"\[([a-z_]+)\] (\w+ = .+)", span)
+            if not m or m.group(1) not in option_sections():     # options, not paths
+                continue
+            try:
+                tomllib.loads(m.group(2))
+            except tomllib.TOMLDecodeError:
+                continue
+            out.setdefault(span, pytest.param(m.group(1), m.group(2), id=f"{doc.name}:{span}"))
+    return list(out.values())
+
+
+@pytest.mark.parametrize("section, setting", _setting_spans())
+def test_settings_named_in_docs_load(section, setting, tmp_path):
+    """A setting a doc names (``[dry] gas_scheme = "zhang2003"``) is a value the scenario
+    loader accepts, on the demo's inputs."""
+    demo = ROOT / "demo_data"
+    path = tmp_path / "scenario.toml"
+    body = f'[inputs]\nsites = "{(demo / "sites.toml").as_posix()}"\n'
+    if section != "budget":           # the demo's bulk collector needs its correction
+        body += '[budget]\nbulk_correction = "exclude_particles"\n'
+    path.write_text(body + f"[{section}]\n{setting}\n")
+    load_scenario(path)
