@@ -259,6 +259,10 @@ def _file_problems(text):
                 continue
             if not (ROOT / token).exists():
                 bad.append(f"`{span}`: no {token}")
+        for path, name in re.findall(r"((?:tests|benchmarks)/[\w/]+\.py)::(\w+)", span):
+            if (ROOT / path).exists() and not re.search(rf"^\s*def {name}\(",
+                                                        (ROOT / path).read_text(), re.M):
+                bad.append(f"`{span}`: no test {name} in {path}")
     return bad
 
 
@@ -287,6 +291,12 @@ def _resolves(dotted):
 
 
 MODULES = {m.name for m in pkgutil.iter_modules(workbench.__path__)}
+#: Short name -> dotted name of a module of a subpackage (``siteblocks`` ->
+#: ``workbench.drydep.siteblocks``), when the short name is unique.
+_SUB = {}
+for _m in pkgutil.walk_packages(workbench.__path__, "workbench."):
+    _SUB.setdefault(_m.name.rsplit(".", 1)[-1], []).append(_m.name)
+SUBMODULES = {k: v[0] for k, v in _SUB.items() if len(v) == 1 and k not in MODULES}
 
 
 def _name_problems(text):
@@ -301,6 +311,10 @@ def _name_problems(text):
             elif parts[0] in MODULES and not (parts[0] in KEYS and parts[1] in
                                               KEYS[parts[0]] | SUBTABLES.get(parts[0], set())):
                 dotted = "workbench." + token
+            elif parts[0] in SUBMODULES and len(parts) == 2 and parts[1].isupper():
+                # a constant of a subpackage's module (``siteblocks.SITE_BLOCK_ELEMENTS``);
+                # a lower-case name may be a method of an object (``ledger.summary()``)
+                dotted = f"{SUBMODULES[parts[0]]}.{parts[1]}"
             else:
                 continue
             if dotted not in ELSEWHERE and not _resolves(dotted):
@@ -322,7 +336,8 @@ Run `workbench run SCENARIO --out DIR --no-such-option` or `workbench check --ov
 `python benchmarks/network.py --no-such-size` and `python benchmarks/gone.py`.
 Set `[dry] no_such_key`, `[budget] gas_scheme`, `[dry.no_table]`, `wet.no_such_key`
 and `[sites.ridge] no_override`.
-See `tests/io/test_gone.py` and `workbench.graph.NO_SUCH_NAME`, `stages.no_function`.
+See `tests/io/test_gone.py` and `workbench.graph.NO_SUCH_NAME`, `stages.no_function`,
+`siteblocks.NO_CONSTANT` and `tests/test_graph.py::test_no_such_test`.
 """
 
 
@@ -336,9 +351,12 @@ def test_checkers_find_planted_mistakes():
     for word in ("no key 'no_such_key'", "[budget] takes no key 'gas_scheme'",
                  "no table 'no_table'", "wet.no_such_key", "no key 'no_override'"):
         assert any(word in b for b in keys), (word, keys)
-    assert any("tests/io/test_gone.py" in b for b in _file_problems(PLANTED))
+    files = _file_problems(PLANTED)
+    assert any("tests/io/test_gone.py" in b for b in files)
+    assert any("no test test_no_such_test" in b for b in files)
     names = _name_problems(PLANTED)
-    assert any("NO_SUCH_NAME" in b for b in names) and any("no_function" in b for b in names)
+    for word in ("NO_SUCH_NAME", "no_function", "workbench.drydep.siteblocks.NO_CONSTANT"):
+        assert any(word in b for b in names), (word, names)
 
 
 def test_elsewhere_is_shipped():
