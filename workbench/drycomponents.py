@@ -129,6 +129,20 @@ def _pair_air(air: xr.Dataset, pair: str, into: str) -> xr.Dataset:
     return air.assign(new)                       # one merge (each item set costs ~1 ms)
 
 
+def _unpaired_notes(air: xr.Dataset, pair: str) -> list:
+    """Notes for the sites whose pair members are both measured but never in one sample
+    (e.g. NH3 on monthly passive samplers, pNH4 on weekly filters): the pair cannot be
+    moved between phases sample by sample (:func:`_pair_air`), so its bracket is empty."""
+    gas, part = PAIRS[pair]
+    site = air["site"].values
+    g, p = np.isfinite(air[gas].values), np.isfinite(air[part].values)
+    lone = (set(site[g]) & set(site[p])) - set(site[g & p])
+    return [f"{gas} and {part} at {s}: the {pair} bracket (dry N with the pair all as gas "
+            f"or all as particle) is left empty: no sample holds both ({gas} and {part} "
+            f"come from different samplers or periods); the measured dry N stands"
+            for s in sorted(map(str, lone))]
+
+
 def _fingerprint(air: xr.Dataset, species: str) -> str:
     """Digest of what the rows of a species read from the air dataset (its values,
     censoring, detection limits, methods, sites and times), for content-keyed caches."""
@@ -323,6 +337,7 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
         out["keys"]["nh3|deposition"], out["keys"]["nh3|emission"] = dep.key, em.key
     for pair, (gas, part) in PAIRS.items():
         if gas in air_v and part in air_v and gas in nodes and part in nodes:
+            out["notes"].extend(_unpaired_notes(air_v, pair))
             for how, into in (("all_gas", gas), ("all_particle", part)):
                 moved = run("pair_air", deps={"air": prepared},
                             params={"pair": pair, "into": into})

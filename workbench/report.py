@@ -270,7 +270,8 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
                             on=["site", "receptor", "period"], how="inner")
         parts.append("<p>The status and missing components are those of the measured dry N; "
                      "a bracket shown as – could not be computed for that period (budget.nc has no "
-                     "value either); the measured figure stands.</p>")
+                     "value either; the notes on components say why, e.g. the two members "
+                     "of a pair on different samplers); the measured figure stands.</p>")
         parts.append(_table_html(frame[["site", "receptor", "period", "dry_N_as_measured_kg_ha",
                                         "status", "missing_components",
                                         "dry_N_all_gas_kg_ha", "dry_N_all_particle_kg_ha"]]))
