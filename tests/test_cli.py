@@ -407,3 +407,29 @@ def test_block_sites_help_names_the_block_defaults():
     text = next(a.help for a in run._actions if "--block-sites" in a.option_strings)
     assert f"default {DEFAULT_MAX_BLOCK};" in text
     assert f"more than {AUTO_BLOCK_SITES} sites" in text
+
+
+def test_ctrl_c_inside_a_gc_callback_is_sent_again(monkeypatch):
+    """dask's scheduler hooks a callback into the garbage collector of this process; a
+    KeyboardInterrupt raised inside it is printed as "ignored" and the run goes on.  The
+    command's handler sends the signal again once the callback has returned; elsewhere it
+    raises KeyboardInterrupt as Python's own handler does."""
+    import gc
+    import signal
+    import time as _time
+    from workbench import cli
+    sent = []
+    monkeypatch.setattr(signal, "raise_signal", sent.append)
+
+    def callback(phase, info):
+        cli._on_ctrl_c(signal.SIGINT, sys._getframe())
+    gc.callbacks.append(callback)
+    try:
+        gc.collect()
+    finally:
+        gc.callbacks.remove(callback)
+    _time.sleep(0.2)                      # the timer of 20 ms
+    assert sent and set(sent) == {signal.SIGINT}
+    assert not cli._in_gc_callback(sys._getframe())
+    with pytest.raises(KeyboardInterrupt):
+        cli._on_ctrl_c(signal.SIGINT, sys._getframe())

@@ -298,11 +298,55 @@ def build_parser() -> argparse.ArgumentParser:
     return p
 
 
+def _in_gc_callback(frame) -> bool:
+    """Whether `frame` runs inside a callback of the garbage collector."""
+    import gc
+    codes = set()
+    for cb in gc.callbacks:
+        fn = getattr(cb, "__func__", cb)
+        code = getattr(fn, "__code__", None)
+        if code is not None:
+            codes.add(code)
+    while frame is not None and codes:
+        if frame.f_code in codes:
+            return True
+        frame = frame.f_back
+    return False
+
+
+def _on_ctrl_c(signum, frame):
+    """SIGINT: KeyboardInterrupt, as Python's own handler, except inside a callback of
+    the garbage collector (dask's scheduler hooks one into this process), where the
+    exception would be printed as "ignored" and the run would go on to its end: there
+    the signal is sent again 20 ms later, once the callback has returned."""
+    if _in_gc_callback(frame):
+        import signal
+        import threading
+        timer = threading.Timer(0.02, signal.raise_signal, (signal.SIGINT,))
+        timer.daemon = True
+        timer.start()
+        return
+    raise KeyboardInterrupt
+
+
+def _catch_ctrl_c():
+    """Install :func:`_on_ctrl_c` where Python's own SIGINT handler is in force (the main
+    thread); returns the handler to restore, or None."""
+    import signal
+    import threading
+    if threading.current_thread() is not threading.main_thread() or \
+            signal.getsignal(signal.SIGINT) is not signal.default_int_handler:
+        return None
+    return signal.signal(signal.SIGINT, _on_ctrl_c)
+
+
 def main(argv=None) -> int:
     """Run the command line; returns the exit code (0 success, 2 error, 130 Ctrl-C)."""
+    import signal
     args = build_parser().parse_args(argv)
     stderr = sys.stderr
     sys.stderr = _LineEnd(stderr)        # an error starts on a line of its own
+    before = _catch_ctrl_c()
     try:
         return args.func(args)
     except WorkbenchError as exc:
@@ -318,6 +362,8 @@ def main(argv=None) -> int:
                                 if where else ""))
         return 130
     finally:
+        if before is not None:
+            signal.signal(signal.SIGINT, before)
         _end_line()
         sys.stderr = stderr
 
