@@ -512,6 +512,37 @@ def add_totals(ds: xr.Dataset) -> xr.Dataset:
     return ds.assign_coords(total=names).assign(totals)
 
 
+#: The components behind the derived sums of summary.csv (docs/budget.md, "Components
+#: and units"); the potential acidity takes every S and N component.
+DERIVED_PARTS = {"oxidized_N": OXIDIZED_N, "reduced_N": REDUCED_N,
+                 "potential_acidity": tuple(c[2] for c in COMPONENTS if c[0] == "S")
+                 + OXIDIZED_N + REDUCED_N}
+
+
+def derived_status(table: pd.DataFrame) -> pd.DataFrame:
+    """Status and missing components of the derived sums (oxidized N, reduced N,
+    potential acidity) per (site, receptor, period), by the rule of every sum
+    (:func:`workbench.budget.combine_status`): without them an oxidized N that lacks an
+    unmeasured NO2 read as complete in summary.csv.
+
+    Returns
+    -------
+    DataFrame
+        Columns site, receptor, period, ``<sum>_status`` and ``<sum>_missing_components``.
+    """
+    comp = table[(table["species"] != "all") & (table["period"] != "span")]
+    key = ["site", "receptor", "period"]
+    st = comp.pivot_table(index=key, columns="species", values="status", aggfunc="first",
+                          observed=True)
+    out = pd.DataFrame(index=st.index)
+    for name, parts in DERIVED_PARTS.items():
+        sub = st.reindex(columns=list(parts)).fillna("missing").to_numpy(object)
+        out[f"{name}_status"], _ = combine_status(sub)
+        out[f"{name}_missing_components"] = [
+            " ".join(p for p, v in zip(parts, row) if v == "missing") for row in sub]
+    return out.reset_index()
+
+
 def derived(ds: xr.Dataset) -> xr.Dataset:
     """Dry and wet shares, oxidized and reduced N, potential acidity [eq ha-1].
 

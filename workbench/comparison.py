@@ -57,6 +57,23 @@ def run(study, wet_options=None, dry_options=None, budget_options=None, fixed_ve
     return result
 
 
+def chosen_scheme(result):
+    """(result showing the chosen gas scheme only, every scheme's table or None).
+
+    With ``[dry] compare_schemes`` the result's table holds the rows of every scheme
+    (:func:`workbench.comparison.run_compared`); the report's tables are those of the
+    chosen scheme, and the other schemes appear in their own section only."""
+    import copy
+    t = result.table
+    if "scheme" not in t:
+        return result, None
+    dry = result.options.get("dry")
+    chosen = getattr(dry, "gas_scheme", None) or str(t["scheme"].iloc[0])
+    view = copy.copy(result)
+    view.table = t[t["scheme"] == chosen].drop(columns="scheme").reset_index(drop=True)
+    return view, t
+
+
 def annual_vd_table(velocities_by_scheme: dict, gases=COMPARED_GASES) -> pd.DataFrame:
     """Mean Vd over the record by site, receptor, gas and scheme [cm s-1].
 

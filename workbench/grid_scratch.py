@@ -39,10 +39,9 @@ from pathlib import Path
 import numpy as np
 
 from .grid_io import GridError, _open, read_values
+from .io.zarrstore import LARGE_CHUNK_BYTES, chunk_sizes
 from .runfolder import OutputError, os_error_message
 
-#: A chunk larger than this is named in a note: the copy holds one whole [byte].
-LARGE_CHUNK_BYTES = 256 << 20
 ROLES = ("met", "air")
 
 
@@ -92,12 +91,9 @@ class Scratch:
 def chunk_shape(var, dims) -> tuple | None:
     """(time, y, x) size of a chunk of a lazily opened variable, None for a file
     without chunks (NetCDF3, contiguous NetCDF4)."""
-    pref = var.encoding.get("preferred_chunks")
+    pref = chunk_sizes(var)
     if not pref:
-        sizes = var.encoding.get("chunksizes")
-        if not sizes:
-            return None
-        pref = dict(zip(var.dims, sizes))
+        return None
     return tuple(int(pref.get(d) or var.sizes[d]) for d in ("time",) + tuple(dims))
 
 

@@ -135,23 +135,6 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES) -> tuple:
     return out, first
 
 
-def chosen_scheme(result):
-    """(result showing the chosen gas scheme only, every scheme's table or None).
-
-    With ``[dry] compare_schemes`` the result's table holds the rows of every scheme
-    (:func:`workbench.comparison.run_compared`); the report's tables are those of the
-    chosen scheme, and the other schemes appear in their own section only."""
-    import copy
-    t = result.table
-    if "scheme" not in t:
-        return result, None
-    dry = result.options.get("dry")
-    chosen = getattr(dry, "gas_scheme", None) or str(t["scheme"].iloc[0])
-    view = copy.copy(result)
-    view.table = t[t["scheme"] == chosen].drop(columns="scheme").reset_index(drop=True)
-    return view, t
-
-
 def _settings_html(result, all_schemes) -> str:
     """The choices a reader must know before reading any number: gas scheme, NH3."""
     dry = result.options.get("dry")
@@ -233,6 +216,7 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     tables keep every site."""
     import plotly.io as pio
     from .ui.figures import budget_bars
+    from .comparison import chosen_scheme
     result, all_schemes = chosen_scheme(result)
     parts = [_settings_html(result, all_schemes)]
     t = result.table

@@ -20,6 +20,7 @@ from .io.common import release_free_memory
 from .io.ledger import STATUSES
 from .runfolder import (OutputError, RunFolder, atomic_write, check_out_dir,  # noqa: F401
                         os_error_message)
+from .budget import derived_status
 from .tables import BUDGET_COLUMNS, summary_table
 
 __all__ = ["OUTPUT_STEPS", "OutputError", "RunFolder", "atomic_write", "write_run"]
@@ -149,7 +150,7 @@ def budget_dataset(result) -> xr.Dataset:
     ds = result.budget.copy()
     ds["deposition"].attrs.update({"long_name": "deposition as amount of S or N (element basis)"})
     ds = xr.merge([ds, result.derived], compat="override")
-    from .report import chosen_scheme
+    from .comparison import chosen_scheme
     st = derived_status(chosen_scheme(result)[0].table).set_index(["site", "receptor", "period"])
     for col in st.columns:
         v = st[col].to_xarray().reindex(site=ds["site"], receptor=ds["receptor"],
@@ -228,41 +229,8 @@ def write_budget_csv(result, study, scenario, path):
     return path
 
 
-#: The components behind the derived sums of summary.csv (docs/budget.md, "Components
-#: and units"); the potential acidity takes every S and N component.
-DERIVED_PARTS = {"oxidized_N": ("NO3", "HNO3", "pNO3", "NO2"),
-                 "reduced_N": ("NH4", "NH3", "pNH4"),
-                 "potential_acidity": ("SO4", "SO2", "pSO4", "NO3", "HNO3", "pNO3", "NO2",
-                                       "NH4", "NH3", "pNH4")}
-
-
-def derived_status(table: pd.DataFrame) -> pd.DataFrame:
-    """Status and missing components of the derived sums (oxidized N, reduced N,
-    potential acidity) per (site, receptor, period), by the rule of every sum
-    (:func:`workbench.budget.combine_status`): without them an oxidized N that lacks an
-    unmeasured NO2 read as complete in summary.csv.
-
-    Returns
-    -------
-    DataFrame
-        Columns site, receptor, period, ``<sum>_status`` and ``<sum>_missing_components``.
-    """
-    from .budget import combine_status
-    comp = table[(table["species"] != "all") & (table["period"] != "span")]
-    key = ["site", "receptor", "period"]
-    st = comp.pivot_table(index=key, columns="species", values="status", aggfunc="first",
-                          observed=True)
-    out = pd.DataFrame(index=st.index)
-    for name, parts in DERIVED_PARTS.items():
-        sub = st.reindex(columns=list(parts)).fillna("missing").to_numpy(object)
-        out[f"{name}_status"], _ = combine_status(sub)
-        out[f"{name}_missing_components"] = [
-            " ".join(p for p, v in zip(parts, row) if v == "missing") for row in sub]
-    return out.reset_index()
-
-
 def write_summary_csv(result, study, scenario, path):
-    from .report import chosen_scheme
+    from .comparison import chosen_scheme
     frame = summary_table(result)
     extra = derived_status(chosen_scheme(result)[0].table)
     frame = frame.merge(extra.astype({"period": frame["period"].dtype}),
@@ -328,7 +296,7 @@ def write_analysis_tables(result, study, scenario, path):
     """exceedance.csv, trends.csv and the handover tables beside `path`; returns their
     names (:func:`workbench.analysis.outputs.write_analysis`)."""
     from .analysis.outputs import write_analysis
-    from .report import chosen_scheme
+    from .comparison import chosen_scheme
     result, _ = chosen_scheme(result)     # [dry] compare_schemes: the chosen scheme's rows
     return list(write_analysis(result, study, scenario, Path(path).parent, atomic_write))
 

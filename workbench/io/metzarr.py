@@ -27,14 +27,13 @@ import xarray as xr
 from xarray.core import indexing
 
 from .metstore import StoreArray
+from .zarrstore import LARGE_CHUNK_BYTES, chunk_sizes
 
-#: A chunk larger than this is named in a note: reading it holds it whole [byte].
-LARGE_CHUNK_BYTES = 256 << 20
 
 
 def _chunks(var, n_s, n_t):
     """(sites, hours) of one chunk of a (site, time) variable of the store."""
-    pref = var.encoding.get("preferred_chunks") or {}
+    pref = chunk_sizes(var)
     return int(pref.get("site", n_s)) or n_s, int(pref.get("time", n_t)) or n_t
 
 

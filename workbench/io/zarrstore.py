@@ -34,6 +34,22 @@ _GROUP_FILES = ("zarr.json", ".zgroup")
 _ARRAY_FILES = (".zarray",)
 
 
+#: A chunk larger than this is named in a note: a reader of chunked inputs (the met
+#: store's site groups, the grid's scratch copy) holds one whole [byte].
+LARGE_CHUNK_BYTES = 256 << 20
+
+
+def chunk_sizes(var) -> dict:
+    """dim -> cells of one chunk of a lazily opened variable (a zarr store's or a
+    NetCDF4 file's own chunks); empty for a file without chunks (NetCDF3, contiguous
+    NetCDF4)."""
+    pref = var.encoding.get("preferred_chunks")
+    if pref:
+        return dict(pref)
+    sizes = var.encoding.get("chunksizes")
+    return dict(zip(var.dims, sizes)) if sizes else {}
+
+
 def is_zarr_path(path) -> bool:
     """True for a path read as a zarr store: a name ending in ``.zarr`` or ``.zarr.zip``,
     or any folder (a folder is never a CSV or NetCDF file).
