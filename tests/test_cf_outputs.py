@@ -23,7 +23,8 @@ from cf_check import cf_check                       # noqa: E402
 from ui.demo_subset import write_demo_subset        # noqa: E402
 from test_grid import _write as grid_write, site     # noqa: E402,F401  (site: a fixture)
 
-#: Molar masses [kg mol-1] (IUPAC standard atomic weights, abridged: S 32.06, N 14.007).
+#: Molar masses [kg mol-1] (IUPAC standard atomic weights, abridged: S 32.06, N 14.007;
+#: recalled from memory).
 MOLAR = {"S": 32.06e-3, "N": 14.007e-3}
 
 
