@@ -433,3 +433,35 @@ def test_ctrl_c_inside_a_gc_callback_is_sent_again(monkeypatch):
     assert not cli._in_gc_callback(sys._getframe())
     with pytest.raises(KeyboardInterrupt):
         cli._on_ctrl_c(signal.SIGINT, sys._getframe())
+
+
+# ------------------------------------------------- the demo beside published ranges
+#: Ranges for rural sites (docs/budget.md, "The demo beside published ranges"): total S
+#: and N from the global assessment of Vet et al. 2014 (Atmos. Environ. 93, 3-100),
+#: recalled from memory; pH 5.6 of rain in equilibrium with CO2 (handbook fact), 4.1 the
+#: most acid regional means of the 1980s-1990s (from memory).
+PUBLISHED_RANGES = {"S_total_kg_ha_yr": (1.0, 25.0), "N_total_kg_ha_yr": (3.0, 40.0),
+                    "pH_pwm": (4.1, 5.6)}
+
+
+def _demo_means(run):
+    t = pd.read_csv(run / "summary.csv")
+    t = t[t["period"].astype(str).str.fullmatch(r"\d{4}")]
+    return t.groupby(["site", "receptor"])[list(PUBLISHED_RANGES)].mean()
+
+
+def test_demo_totals_lie_in_published_ranges_and_the_doc_table_is_current(demo_run):
+    means = _demo_means(demo_run)
+    assert len(means) == 10
+    for col, (lo, hi) in PUBLISHED_RANGES.items():
+        assert means[col].between(lo, hi).all(), means[col]
+    text = (ROOT / "docs" / "budget.md").read_text()
+    block = text.split("<!-- demo-ranges -->")[1].split("<!-- /demo-ranges -->")[0]
+    rows = [r.strip("|").split("|") for r in block.strip().splitlines()[2:]]
+    doc = {tuple(r[0].split()): [float(v) for v in r[1:]] for r in rows}
+    assert set(doc) == set(means.index)
+    for key, (s, n, ph) in doc.items():
+        m = means.loc[key]
+        assert abs(m["S_total_kg_ha_yr"] - s) <= 0.051, (key, m["S_total_kg_ha_yr"])
+        assert abs(m["N_total_kg_ha_yr"] - n) <= 0.051, (key, m["N_total_kg_ha_yr"])
+        assert abs(m["pH_pwm"] - ph) <= 0.0051, (key, m["pH_pwm"])
