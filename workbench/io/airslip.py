@@ -227,18 +227,20 @@ def particle_balance_notes(ds: xr.Dataset, units: dict, file_name: str) -> list[
                 inside = (_ratio(c2, a2) >= lo) & (_ratio(c2, a2) <= hi)
                 mended = int(inside[failing[every]].sum())
                 # the slip is in every sample: the reading that puts most of the
-                # sampler's samples in the band wins, not only most failing ones
+                # sampler's samples in the band wins, not only most failing ones; on a
+                # tie the one whose median ratio is nearest 1 (neutralised aerosol)
                 total = int(inside.sum())
+                after = float(np.nanmedian(_ratio(c2, a2)))
                 if mended > SHARE * k:
-                    fits.append((total, mended, sp, header, unit, basis, other[0], f))
+                    fits.append((total, mended, sp, header, unit, basis, other[0], f, after))
             if not fits:
                 continue
-            fits.sort(key=lambda t: -t[0])
-            total, mended, sp, header, unit, basis, other, f = fits[0]
+            fits.sort(key=lambda t: (-t[0], abs(np.log(t[8]))))
+            total, mended, sp, header, unit, basis, other, f, after = fits[0]
             also = "".join(
                 f"; reading {t[2]} as {_basis_text(t[4], t[2], t[6])} would bring back {t[1]} "
-                f"of the {k} too, but leaves {t[0]} of all {len(every)} in the band against "
-                f"{total}" for t in fits[1:])
+                f"of the {k} too, with {t[0]} of all {len(every)} samples in the band and a "
+                f"median ratio {t[8]:.2f} (against {total} and {after:.2f})" for t in fits[1:])
             formula = _species.get(sp).formula
             el = _species.get(sp).element
             why = (f"molar masses of {formula} and {el}" if f > 1 else
@@ -329,7 +331,7 @@ def overlap_means(start_long, end_long, start_short, end_short, value_short):
     >>> m, c = overlap_means([d], [d + 4 * h], [d, d + h, d + 3 * h],
     ...                      [d + h, d + 2 * h, d + 5 * h], [1.0, 3.0, 5.0])
     >>> m.round(3).tolist(), c.tolist()
-    [[3.0], [0.75]]
+    ([3.0], [0.75])
     """
     s, e = _seconds(start_short), _seconds(end_short)
     v = np.asarray(value_short, float)
