@@ -18,8 +18,6 @@ from workbench.io.airslip import (BALANCE_BAND, MIN_PERIODS, MIN_SAMPLES, amount
                                   gas_alternatives, overlap_means)
 from workbench.units import ureg
 
-from tiny_inputs import SITES
-
 DEMO = Path(__file__).resolve().parents[2] / "demo_data"
 LINES = (DEMO / "air.csv").read_text().splitlines()
 FIRST, HEAD = LINES[0], LINES[1]
@@ -357,3 +355,12 @@ def test_the_note_is_in_the_inputs_account(tmp_path, demo_cat):
     notes = [n for n in inp.ledger.notes if "ammonium-to-anion" in n]
     assert len(notes) == 1
     assert notes[0] in inp.describe()
+
+
+def test_docs_carry_the_factors_table():
+    """docs/data_formats.md shows the factors the code tries, with their derivation."""
+    from workbench.io.airslip import factors_table
+    doc = (Path(__file__).resolve().parents[2] / "docs" / "data_formats.md").read_text()
+    assert factors_table() in doc
+    lo, hi, _ = BALANCE_BAND
+    assert f"The band is {lo:g}-{hi:g}" in doc

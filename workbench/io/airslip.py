@@ -37,7 +37,7 @@ import xarray as xr
 
 from .. import species as _species
 from ..constants import GAS_CONSTANT
-from ..units import Q_, concentration_kind, parse_unit, to_amount
+from ..units import concentration_kind, to_amount
 from .plausible import CHECK_PRESSURE, CHECK_TEMPERATURE
 
 #: Share of a sampler's evaluable samples that must fail in one direction, and share
@@ -117,11 +117,13 @@ def _basis_text(unit: str, species: str, basis: str | None) -> str:
 
 
 def _other_basis(species: str, unit: str, basis: str | None):
-    """The other basis of a mass column, or None (an amount or mixing ratio has one)."""
+    """``(other basis,)`` of a mass column (the element for a species-basis header,
+    None for an element-basis one), or None when there is none: an amount or a mixing
+    ratio is the same number in either basis (1 mol NO3 = 1 mol N)."""
     el = _species.get(species).element
     if el is None or concentration_kind(unit) != "mass_density":
         return None
-    return None if basis else el, True
+    return (None if basis else el,)
 
 
 def _groups(ds: xr.Dataset) -> np.ndarray:
@@ -413,8 +415,8 @@ def gas_pair_notes(ds: xr.Dataset, units: dict, file_name: str) -> list[str]:
                               "v": v[ok]})
         frame["days"] = (frame["end"] - frame["start"]) / np.timedelta64(1, "D")
         per = frame.groupby("site")["sampler"].nunique()
-        for site in per.index[per >= 2]:
-            at = frame[frame["site"] == site]
+        multi = frame[frame["site"].isin(per.index[per >= 2])]
+        for site, at in multi.groupby("site", sort=True):
             length = at.groupby("sampler")["days"].median().sort_index()
             names = list(length.index)
             for i, a in enumerate(names):
@@ -477,3 +479,30 @@ def air_slip_notes(ds: xr.Dataset, units: dict, file_name: str) -> list[str]:
     list of str
     """
     return particle_balance_notes(ds, units, file_name) + gas_pair_notes(ds, units, file_name)
+
+
+def factors_table() -> str:
+    """The slip factors the hints try, as a Markdown table (docs/data_formats.md).
+
+    Amount read under the header's unit divided by the amount the same number stands
+    for under the other reading; the ppb factors at 20 degC, 1013.25 hPa.
+    """
+    rows = ["| species | slip | factor | derivation |", "|---|---|---|---|"]
+    for sp, _ in BALANCE_COLUMNS:
+        s = _species.get(sp)
+        m_sp, m_el = s.molar_mass * 1e3, _species.element_molar_mass(s.element) * 1e3
+        f = amount_per_number("ug/m3", sp, s.element) / amount_per_number("ug/m3", sp)
+        rows.append(f"| `{sp}` | ug {s.element}/m3 under `{sp} [ug/m3]` (or the reverse "
+                    f"under `{sp}_as_{s.element}`) | {f:.4g} (1/{f:.4g}) | M({s.formula}) / "
+                    f"M({s.element}) = {m_sp:.3f} / {m_el:.3f} |")
+    for sp in ("NH3", "SO2", "HNO3", "NO2"):
+        s = _species.get(sp)
+        m_sp, m_el = s.molar_mass * 1e3, _species.element_molar_mass(s.element) * 1e3
+        per = amount_per_number("ppb", sp) / amount_per_number("ug/m3", sp)
+        rows.append(f"| `{sp}` | ppb under `[ug/m3]` or ug/m3 under `[ppb]` | 1 ppb = "
+                    f"{per:.4g} ug/m3 | M p / (R T) = {m_sp:.3f} g/mol x 101325 Pa / "
+                    f"({GAS_CONSTANT} J/(mol K) x 293.15 K) |")
+        rows.append(f"| `{sp}` | ug {s.element}/m3 under `{sp} [ug/m3]` (or the reverse) | "
+                    f"{m_sp / m_el:.4g} | M({s.formula}) / M({s.element}) = {m_sp:.3f} / "
+                    f"{m_el:.3f} |")
+    return "\n".join(rows)
