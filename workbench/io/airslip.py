@@ -403,19 +403,19 @@ def gas_pair_notes(ds: xr.Dataset, units: dict, file_name: str) -> list[str]:
     for sp in _species.AIR_GASES:
         if sp not in ds:
             continue
-        header, unit, basis = units[sp]
-        alts = gas_alternatives(sp, unit, basis)
         v = _density(ds, sp)
         ok = np.isfinite(v)
-        if not alts or not ok.any():
-            continue
         frame = pd.DataFrame({"site": ds["site"].values.astype(str)[ok],
                               "sampler": ds["sampler_id"].values.astype(str)[ok],
                               "start": ds["start"].values[ok], "end": ds["end"].values[ok],
                               "v": v[ok]})
-        frame["days"] = (frame["end"] - frame["start"]) / np.timedelta64(1, "D")
         per = frame.groupby("site")["sampler"].nunique()
-        multi = frame[frame["site"].isin(per.index[per >= 2])]
+        multi = frame[frame["site"].isin(per.index[per >= 2])].copy()
+        header, unit, basis = units[sp]
+        alts = gas_alternatives(sp, unit, basis) if len(multi) else []
+        if not alts:
+            continue
+        multi["days"] = (multi["end"] - multi["start"]) / np.timedelta64(1, "D")
         for site, at in multi.groupby("site", sort=True):
             length = at.groupby("sampler")["days"].median().sort_index()
             names = list(length.index)
