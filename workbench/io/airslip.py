@@ -186,11 +186,12 @@ def particle_balance_notes(ds: xr.Dataset, units: dict, file_name: str) -> list[
     Returns
     -------
     list of str
-        E.g. ``"a.csv: pNO3 at ridge, sampler RDG-F1: 250 of 416 samples have the
+        E.g. ``"a.csv: pNO3 at ridge, sampler RDG-F1: 256 of 416 samples have the
         ammonium-to-anion equivalent ratio NH4/(2 SO4 + NO3) above 1.25 (median
         1.37); the values look like ug/m3 as N under the species-basis header
-        'pNO3 [ug/m3]': read so, each amount is 4.427 x the one read (molar masses of NO3 and
-        N), and 229 of the 250 come back into 0.5-1.25 (values not changed)"``.
+        'pNO3 [ug/m3]': read so, each amount is 4.427 x the one read (molar masses
+        of NO3 and N), and 220 of the 256 come back into 0.5-1.25; reading pSO4 as
+        ug/m3 as S would bring back ... (values not changed)"``.
     """
     if ds.sizes.get("period", 0) == 0 or not all(sp in ds for sp, _ in BALANCE_COLUMNS):
         return []
@@ -207,27 +208,29 @@ def particle_balance_notes(ds: xr.Dataset, units: dict, file_name: str) -> list[
     sides = " + ".join(["2 SO4 + NO3"] + (["Cl"] if "pCl" in eqs and "pNa" in eqs else []))
     top = "NH4" + (" (+ Na)" if "pCl" in eqs and "pNa" in eqs else "")
     notes = []
+    readings = []          # (column, side, header, unit, basis, other basis, factor)
+    for sp, part in BALANCE_COLUMNS:
+        header, unit, basis = units[sp]
+        other = _other_basis(sp, unit, basis)
+        if other is not None:
+            f = amount_per_number(unit, sp, other[0]) / amount_per_number(unit, sp, basis)
+            readings.append((sp, part, header, unit, basis, other, f))
+    ev_rows = np.flatnonzero(evaluable)
+    rows_of = pd.Series(ev_rows).groupby(groups[ev_rows]).indices
     for g, row in suspect.iterrows():
-        at = groups == g
+        every = ev_rows[rows_of[g]]     # the sampler's evaluable rows
         site, sampler = g.split("\x1f")
         for failing_all, side in ((low, "below"), (high, "above")):
-            failing = failing_all & at
-            k = int(failing.sum())
+            k = int(failing_all[every].sum())
             if k <= SHARE * row["n"]:
                 continue
-            every = np.flatnonzero(evaluable & at)
             fits = []
-            for sp, part in BALANCE_COLUMNS:
-                header, unit, basis = units[sp]
-                other = _other_basis(sp, unit, basis)
-                if other is None:
-                    continue
-                f = amount_per_number(unit, sp, other[0]) / amount_per_number(unit, sp, basis)
+            for sp, part, header, unit, basis, other, f in readings:
                 extra = (f - 1.0) * eqs[sp][every]
                 c2, a2 = ((cations[every] + extra, anions[every]) if part == "cation"
                           else (cations[every], anions[every] + extra))
                 inside = (_ratio(c2, a2) >= lo) & (_ratio(c2, a2) <= hi)
-                mended = int(inside[failing[every]].sum())
+                mended = int(inside[failing_all[every]].sum())
                 # the slip is in every sample: the reading that puts most of the
                 # sampler's samples in the band wins, not only most failing ones; on a
                 # tie the one whose median ratio is nearest 1 (neutralised aerosol)
@@ -247,7 +250,7 @@ def particle_balance_notes(ds: xr.Dataset, units: dict, file_name: str) -> list[
             el = _species.get(sp).element
             why = (f"molar masses of {formula} and {el}" if f > 1 else
                    f"molar masses of {el} and {formula}")
-            med = float(np.median(ratio[evaluable & at]))
+            med = float(np.median(ratio[every]))
             kind = "element-basis" if basis else "species-basis"
             notes.append(
                 f"{file_name}: {sp} at {site}, sampler {sampler or '(none)'}: {k} of "
