@@ -10,7 +10,9 @@ row flagged with a hint, so that the ledger says what happened to it:
   than half of a sampler's values sit above the maximum and a factor 1000 brings them
   back into range, the hint names the likely unit slip (mg/m3 read as ug/m3).
 
-The thresholds are in :data:`AIR_RANGES`, each with its source.
+The thresholds are in :data:`AIR_RANGES`, each with its source.  Slips that stay in
+range (element vs species basis of a particle column, ppb vs ug/m3 of a gas measured
+by two samplers) are named by :mod:`workbench.io.airslip` in the ledger notes.
 """
 from __future__ import annotations
 
@@ -52,7 +54,8 @@ AIR_RANGES = {
 UNIT_SLIP = 1000.0
 #: Temperature and pressure used to express a mixing ratio as ug/m3 for the range
 #: checks only [K], [Pa] (20 degC, 1013.25 hPa; the checks are order-of-magnitude).
-_CHECK_T, _CHECK_P = 293.15, 101325.0
+CHECK_TEMPERATURE, CHECK_PRESSURE = 293.15, 101325.0
+_CHECK_T, _CHECK_P = CHECK_TEMPERATURE, CHECK_PRESSURE
 
 
 def sentinel_mask(raw) -> np.ndarray:

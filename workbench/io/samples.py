@@ -351,6 +351,13 @@ def read_air(path, catalogue, reference_state=None):
     concentrations : xarray.Dataset
         Dim ``period``; amounts [mol m-3] at ambient state, or mixing ratios [mol mol-1].
     ledger : Ledger
+
+    Notes
+    -----
+    A likely unit slip that keeps the values in range (a particle column in the other
+    element/species basis, seen in the particle ion balance; a gas of two samplers at
+    one site whose ratio is a ppb <-> ug/m3 or basis factor) is named in the ledger
+    notes (:func:`workbench.io.airslip.air_slip_notes`).
     """
     tab, n, sites, start, end, samplers = _interval_table(path, catalogue, AIR_REQUIRED)
     cols = _species_columns(tab, _species.AIR_GASES + _species.AIR_PARTICLES, "air")
@@ -436,4 +443,13 @@ def read_air(path, catalogue, reference_state=None):
             dvars[f"{sp}_method"] = ("period", methods[sp][keep].astype(str))
     ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path),
                                   "reference_state": str(ref_text) if needs_ref else "none needed"})
+    ledger.notes.extend(_air_slips(tab, ds, cols))
     return ds, ledger
+
+
+def _air_slips(tab, ds, cols) -> list[str]:
+    """Notes on a likely unit slip that stays in range (:mod:`workbench.io.airslip`)."""
+    from .airslip import air_slip_notes
+    units = {sp: (tab.raw_headers[name], tab.unit_of(name), tab.headers[name].basis)
+             for sp, name in cols.items()}
+    return air_slip_notes(ds, units, tab.path.name)
