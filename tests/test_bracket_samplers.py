@@ -177,7 +177,8 @@ def test_a_mixing_ratio_member_becomes_a_flux_with_the_air_density(tmp_path):
     """NH3 as 10 ppb (a mixing ratio), pNH4 in ug/m3: each member converted on its own
     (the former sum added mol mol-1 to mol m-3).  n_air = p / (R T) = 101325 / (R x
     283.15) = 43.04 mol m-3 (ideal gas; R from scipy.constants, CODATA)."""
-    rows = ["alpha,2021-01-01T00:00+00:00,2021-02-01T00:00+00:00,pas1,10.0,,,"] + _weeks("alpha", "fp1", "1.8")
+    rows = (["alpha,2021-01-01T00:00+00:00,2021-02-01T00:00+00:00,pas1,10.0,,,"]
+            + _weeks("alpha", "fp1", "1.8"))
     text = HEADER.replace("NH3 [ug/m3]", "NH3 [ppb]") + "\n".join(rows) + "\n"
     _, air = _files(tmp_path, text)
     t = pd.date_range("2020-12-31T01:00", "2021-02-02T00:00", freq="h").values

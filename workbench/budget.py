@@ -25,7 +25,8 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .budgetstatus import bracket_outputs, dry_status, join_notes, nh3_net_component, wet_component, wet_outputs
+from .budgetstatus import (bracket_outputs, dry_status, join_notes, nh3_net_component,
+                           wet_component, wet_outputs)
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
 from .units import deposition_in, element_deposition_in

@@ -166,21 +166,21 @@ def _combined_notes(air: xr.Dataset, pair: str) -> list:
         "g": g, "p": p})
     both = frame.groupby("site")[["g", "p"]].any()
     lone = frame[(frame["g"] != frame["p"])].groupby("site").size()
-    sites = [s for s in both.index[both["g"] & both["p"]] if s in lone.index]
-    notes = []
-    for s in sorted(sites):
-        here = frame[frame["site"] == s]
-
-        def where(flag):
-            rows = here[here[flag]]
-            return ", ".join(f"{name} ({len(r)} samples of about {r['days'].median():.0f} d)"
-                             for name, r in rows.groupby("sampler"))
-        notes.append(f"{gas} and {part} at {s}: the {pair} bracket (dry N with the pair all "
-                     f"as gas or all as particle) is combined across samplers: {gas} from "
-                     f"{where('g')}, {part} from {where('p')}; each member is deposited over "
-                     f"its own sampling periods and scaled to the reporting period by its own "
-                     f"coverage ({int(lone[s])} samples hold one member only)")
-    return notes
+    sites = sorted(s for s in both.index[both["g"] & both["p"]] if s in lone.index)
+    if not sites:
+        return []
+    # one table of (site, member, sampler) -> samples and median length, read per site
+    frame = frame[frame["site"].isin(sites)]
+    long = pd.concat([frame[frame[k]].assign(member=sp) for k, sp in (("g", gas), ("p", part))])
+    per = long.groupby(["site", "member", "sampler"])["days"].agg(["size", "median"])
+    text = (per.index.get_level_values("sampler") + " (" + per["size"].astype(str)
+            + " samples of about " + per["median"].round().astype(int).astype(str) + " d)")
+    text = text.groupby(level=["site", "member"]).agg(", ".join)
+    return [f"{gas} and {part} at {s}: the {pair} bracket (dry N with the pair all as gas or "
+            f"all as particle) is combined across samplers: {gas} from {text[(s, gas)]}, "
+            f"{part} from {text[(s, part)]}; each member is deposited over its own sampling "
+            f"periods and scaled to the reporting period by its own coverage "
+            f"({int(lone[s])} samples hold one member only)" for s in sites]
 
 
 def _fingerprint(air: xr.Dataset, species: str) -> str:

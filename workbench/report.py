@@ -249,8 +249,8 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
                  "filters) are combined; the run notes name them.</p>")
     dv = result.derived
     if "dry_N_all_gas_kg_ha" in dv:
-        cols = [c for c in ("dry_N_all_gas_kg_ha", "dry_N_all_gas_status", "dry_N_all_particle_kg_ha",
-                            "dry_N_all_particle_status") if c in dv]
+        cols = [c for c in ("dry_N_all_gas_kg_ha", "dry_N_all_gas_status",
+                            "dry_N_all_particle_kg_ha", "dry_N_all_particle_status") if c in dv]
         frame = dv[cols].to_dataframe().reset_index()
         meas = t[(t["element"] == "N") & (t["pathway"] == "dry") & (t["species"] == "all")
                  & (t["period"] != "span")][["site", "receptor", "period", "flux_kg_ha",
