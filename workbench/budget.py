@@ -25,7 +25,8 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .budgetstatus import dry_status, join_notes, nh3_net_component, wet_component, wet_outputs
+from .budgetstatus import (bracket_outputs, dry_status, join_notes, nh3_net_component,
+                           wet_component, wet_outputs)
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
 from .units import deposition_in, element_deposition_in
@@ -395,7 +396,8 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
               "period_hours": ("period", periods["hours"].to_numpy(dtype=float)),
               "annual_factor": ("period", annual_factor(periods)), "total": names}
     if dry is not None:
-        data.update({v: dr.variables[v] for v in dr.data_vars if v.startswith("bracket_")})
+        data.update(bracket_outputs(dr, PAIRS, d_species, d_vdc, d_fs, d_meas, d_sok, d_ratio,
+                                    options))
         conc = dr.variables["concentration"]
         data["air_concentration"] = xr.Variable(
             tuple("air_species" if d == "species" else d for d in conc.dims), conc.values,
@@ -586,17 +588,25 @@ def derived(ds: xr.Dataset) -> xr.Dataset:
         for e in ("S", "N"):
             out[f"{e}_dry_share"] = (dims, t(f"{e}_dry") / t(f"{e}_total"), {"units": "1"})
             out[f"{e}_wet_share"] = (dims, t(f"{e}_wet") / t(f"{e}_total"), {"units": "1"})
-        # the bracket of dry N: each gas/particle pair all as gas, and all as particle
+        # the bracket of dry N: each gas/particle pair all as gas, and all as particle;
+        # its status by the rule of every sum, with each bracket for its pair
         dry_n = t("N_dry")
+        n_dry = (el == "N") & (ds["pathway"].values == "dry")
+        others = ds["status"].values[..., n_dry & ~np.isin(sp, sum(PAIRS.values(), ()))]
         for how in ("all_gas", "all_particle"):
-            alt = dry_n.copy()
+            alt, st = dry_n.copy(), [others]
             for pair, members in PAIRS.items():
                 v = f"bracket_{pair}_{how}"
                 measured = part(np.isin(sp, members) & (ds["pathway"].values == "dry"))
                 alt = alt - measured + (ds[v].values if v in ds else np.nan)
+                st.append(ds[f"{v}_status"].values[..., None] if f"{v}_status" in ds
+                          else np.full(alt.shape + (1,), "missing", object))
             out[f"dry_N_{how}_kg_ha"] = (dims, element_deposition_in(alt, "N", "kg_ha"),
                                          {"units": kg, "long_name": f"dry N with the nitrate and "
                                           f"ammonium pairs {how.replace('_', ' ')}"})
+            out[f"dry_N_{how}_status"] = (dims, np.where(
+                np.isfinite(alt), combine_status(np.concatenate(st, -1))[0], "missing"
+            ).astype(object), {"long_name": f"status of dry_N_{how}_kg_ha (docs/budget.md)"})
         if "air_concentration" in ds:
             c = ds["air_concentration"]
             n_mass = 14.007e-3 * 1e9  # mol N -> ug N

@@ -224,3 +224,84 @@ def nh3_net_component(dep_only, net, status, note):
                                         "compensation point model)"), note)
     status = np.where(unknown, "missing", status)
     return np.where(present & ~unknown, net, np.nan), status, note
+
+
+def bracket_velocities(members) -> dict:
+    """The species whose Vd deposits a whole gas/particle pair in each bracket.
+
+    Parameters
+    ----------
+    members : tuple of str
+        (gas, particle), a value of :data:`workbench.budget.PAIRS`.
+
+    Returns
+    -------
+    dict
+        ``{"all_gas": gas, "all_particle": particle}``: for NH3 the gas scheme's
+        deposition-only Vd, also under ``nh3_treatment = "bidirectional"``.
+    """
+    gas, part = members
+    return {"all_gas": gas, "all_particle": part}
+
+
+def bracket_outputs(dr, pairs, species, vd_cov, filled_share, measured, season_ok, ratio,
+                    options):
+    """The dry-N brackets with their status: the weaker pair member's coverage.
+
+    A bracket adds both members of a gas/particle pair deposited with one phase's Vd,
+    each over its own sampling periods (:func:`workbench.drycomponents.dry_rows`), so it
+    is no better than its weaker member: its air and flux coverage are the smaller of
+    the members' (at the bracket's Vd), its Vd coverage that of the Vd it uses, and it
+    is judged by the rule of a dry component (:func:`dry_status`): ``missing`` where a
+    member has no flux, ``flagged`` where either member fails completeness.
+
+    Parameters
+    ----------
+    dr : xarray.Dataset
+        :func:`workbench.drycomponents.dry_components` on the budget's receptor axis.
+    pairs : dict
+        :data:`workbench.budget.PAIRS`.
+    species : list of str
+        The ``species`` axis of `dr`.
+    vd_cov, filled_share : ndarray (site, receptor, period, species) [1]
+    measured : ndarray of bool (site, species)
+    season_ok : ndarray of bool (site, period, species)
+    ratio : ndarray of bool (species)
+        Given as a mixing ratio.
+    options : BudgetOptions
+
+    Returns
+    -------
+    dict
+        xarray Variables on (site, receptor, period): ``bracket_<pair>_<how>``
+        [mol m-2 of N] (NaN where ``missing``), ``..._status``, ``..._completeness``
+        [1] (the smallest of air, flux and Vd coverage) and ``..._note``.
+    """
+    out = {}
+    dims = ("site", "receptor", "period")
+    for pair, members in pairs.items():
+        for how, vd_sp in bracket_velocities(members).items():
+            name = f"bracket_{pair}_{how}"
+            if name not in dr.variables:
+                continue
+            ks = [species.index(m) for m in members]
+            k = species.index(vd_sp)
+            d = dr.variables[name].values
+            cov = dr.variables[f"{name}_air_coverage"].values[:, None, :] * np.ones(d.shape)
+            fc = dr.variables[f"{name}_flux_coverage"].values
+            meas = measured[:, ks].all(-1)[:, None, None] & np.ones(d.shape, bool)
+            sok = season_ok[:, :, ks].all(-1)[:, None, :]
+            st, _, note = dry_status(cov, vd_cov[..., k], filled_share[..., k], fc, meas, sok,
+                                     bool(ratio[ks].any()), options)
+            note = np.where(note == "", note, f"the weaker of {' and '.join(members)}: " + note)
+            compl = np.fmin(np.fmin(cov, fc), vd_cov[..., k])
+            miss = st == "missing"
+            out[name] = xr.Variable(dims, np.where(miss, np.nan, d), dr.variables[name].attrs)
+            out[f"{name}_status"] = xr.Variable(dims, st, {
+                "long_name": f"status of {name}: that of the weaker pair member (docs/budget.md)"})
+            out[f"{name}_completeness"] = xr.Variable(dims, np.where(miss, np.nan, compl), {
+                "units": "1", "long_name": f"completeness of {name}: the smallest air, flux "
+                "and Vd coverage of the pair members"})
+            out[f"{name}_note"] = xr.Variable(dims, note.astype(object), {
+                "long_name": f"why {name} is missing or flagged"})
+    return out

@@ -17,7 +17,9 @@ import pandas as pd
 import xarray as xr
 
 from . import graph as _graph
+from . import species as _species
 from .budget import COMPONENTS, PAIRS, BudgetError, BudgetOptions
+from .budgetstatus import bracket_velocities
 from .dryflux import (_count_cumulative, _hour_bounds, _inputs_for, deposition_rows, fill_diurnal,
                       period_axes, period_mean, share_to_periods)
 
@@ -129,18 +131,56 @@ def _pair_air(air: xr.Dataset, pair: str, into: str) -> xr.Dataset:
     return air.assign(new)                       # one merge (each item set costs ~1 ms)
 
 
-def _unpaired_notes(air: xr.Dataset, pair: str) -> list:
-    """Notes for the sites whose pair members are both measured but never in one sample
-    (e.g. NH3 on monthly passive samplers, pNH4 on weekly filters): the pair cannot be
-    moved between phases sample by sample (:func:`_pair_air`), so its bracket is empty."""
+def _combined_notes(air: xr.Dataset, pair: str) -> list:
+    """Notes for the sites whose pair members do not share every sample (e.g. NH3 on
+    monthly passive samplers, pNH4 on weekly filters): the bracket there adds the two
+    members, each deposited over its own sampling periods (:func:`dry_rows`); the note
+    names the samplers and their usual sample length [d].
+
+    Parameters
+    ----------
+    air : xarray.Dataset
+        Air concentrations (dim ``period``) with ``site``, ``start``, ``end`` and,
+        when given, ``sampler_id``.
+    pair : str
+        A key of :data:`workbench.budget.PAIRS`.
+
+    Returns
+    -------
+    list of str
+        One note per site where both members are measured and some sample holds one
+        member only (none where every sample holds both or neither).
+    """
     gas, part = PAIRS[pair]
-    site = air["site"].values
-    g, p = np.isfinite(air[gas].values), np.isfinite(air[part].values)
-    lone = (set(site[g]) & set(site[p])) - set(site[g & p])
-    return [f"{gas} and {part} at {s}: the {pair} bracket (dry N with the pair all as gas "
-            f"or all as particle) is left empty: no sample holds both ({gas} and {part} "
-            f"come from different samplers or periods); the measured dry N stands"
-            for s in sorted(map(str, lone))]
+    n = air.sizes["period"]
+
+    def has(sp):                                   # a value or a censored value
+        cens = air[f"{sp}_censored"].values if f"{sp}_censored" in air else False
+        return np.isfinite(air[sp].values) | cens
+    g, p = has(gas), has(part)
+    frame = pd.DataFrame({
+        "site": air["site"].values.astype(str),
+        "sampler": (air["sampler_id"].values.astype(str) if "sampler_id" in air
+                    else np.full(n, "?", object)),
+        "days": (air["end"].values - air["start"].values) / np.timedelta64(1, "D"),
+        "g": g, "p": p})
+    both = frame.groupby("site")[["g", "p"]].any()
+    lone = frame[(frame["g"] != frame["p"])].groupby("site").size()
+    sites = sorted(s for s in both.index[both["g"] & both["p"]] if s in lone.index)
+    if not sites:
+        return []
+    # one table of (site, member, sampler) -> samples and median length, read per site
+    frame = frame[frame["site"].isin(sites)]
+    long = pd.concat([frame[frame[k]].assign(member=sp) for k, sp in (("g", gas), ("p", part))])
+    per = long.groupby(["site", "member", "sampler"])["days"].agg(["size", "median"])
+    text = (per.index.get_level_values("sampler") + " (" + per["size"].astype(str)
+            + " samples of about " + per["median"].round().astype(int).astype(str) + " d)")
+    text = text.groupby(level=["site", "member"]).agg(", ".join)
+    return [f"{gas} and {part} at {s}: the {pair} bracket (dry N with the pair all as gas or "
+            f"all as particle) is combined across samplers: {gas} from {text[(s, gas)]}, "
+            f"{part} from {text[(s, part)]}; each member is deposited over its own sampling "
+            f"periods and scaled to the reporting period by its own coverage "
+            f"({int(lone[s])} samples hold one member only)" for s in sites]
 
 
 def _fingerprint(air: xr.Dataset, species: str) -> str:
@@ -193,12 +233,6 @@ def prepared_air(o, air):
                 prepared = _pair_air(prepared, pair,
                                      gas if options.pair_split == "all_gas" else part)
     return prepared
-
-
-@_graph.stage("pair_air")
-def pair_air(o, air, pair, into):
-    """The prepared air with both members of a pair moved into `into` (a bracket)."""
-    return _pair_air(air, pair, into)
 
 
 @_graph.stage("air_content")
@@ -265,9 +299,10 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
     graph : workbench.graph.Graph, optional
         Where the pieces are cached (a new graph when None): the prepared air
         (``air_basis``), each species' air side (``flux_inputs``, keyed by the content
-        of the air columns it reads) and rows (``species_rows``), the brackets and the
-        NH3 emission rows; so a change of one species' Vd recomputes that species
-        only, and a change of the pair split the pair members only.
+        of the air columns it reads) and rows (``species_rows``; a bracket member is a
+        species with the other member's Vd) and the NH3 emission rows; so a change of
+        one species' Vd recomputes that species and the brackets using its Vd only,
+        and a change of the pair split the pair members only.
     counts : dict, optional
         As for :meth:`workbench.graph.Graph.run`.
 
@@ -277,11 +312,13 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
         ``"species"``: species -> numpy results of
         :func:`workbench.dryflux.deposition_rows` plus ``site_index``; ``"vd_cum"``:
         species -> cumulative counts of modelled and filled Vd hours; ``"bracket"``:
-        (pair, how) -> the rows with the pair moved into one member;
+        (pair, how) -> member -> the member's rows over its own sampling periods with
+        the Vd of :func:`bracket_velocities` (the pair need not share samples);
         ``"nh3_exchange"`` (when `vel` holds :data:`NH3_EXCHANGE`): the deposition and
         emission parts of the net NH3 flux per NH3 sampling period; ``"notes"``,
         ``"measured"`` (site x species bool), ``"receptors"``, ``"times"``, ``"sites"``;
-        ``"keys"``: the node key of each piece of rows (for :func:`dry_components`).
+        ``"keys"``: the node key of each piece of rows (for :func:`dry_components`;
+        a bracket member's under ``("bracket", pair, how, member)``).
     """
     sites = list(sites)
     if graph is None:            # a graph of this call: the inputs need no identity
@@ -335,19 +372,64 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
                                             "times": times_node})
         out["nh3_exchange"] = {"deposition": dep.value[0], "emission": em.value}
         out["keys"]["nh3|deposition"], out["keys"]["nh3|emission"] = dep.key, em.key
+    # the brackets: each member over its own sampling periods with the Vd of the phase
+    # (deposition is linear in C: F(gas + particle at Vd) = F(gas at Vd) + F(particle
+    # at Vd)), from the air as read, so that the bracket does not depend on pair_split
     for pair, (gas, part) in PAIRS.items():
         if gas in air_v and part in air_v and gas in nodes and part in nodes:
-            out["notes"].extend(_unpaired_notes(air_v, pair))
-            for how, into in (("all_gas", gas), ("all_particle", part)):
-                moved = run("pair_air", deps={"air": prepared},
-                            params={"pair": pair, "into": into})
-                _, node = one(moved, into, into)
-                out["bracket"][(pair, how)] = node.value[0]
-                out["keys"][("bracket", pair, how)] = node.key
+            out["notes"].extend(_combined_notes(air.value, pair))
+            for how, vd_sp in bracket_velocities(PAIRS[pair]).items():
+                out["bracket"][(pair, how)] = {}
+                for member in (gas, part):
+                    _, node = one(air, member, vd_sp)
+                    out["bracket"][(pair, how)][member] = node.value[0]
+                    out["keys"][("bracket", pair, how, member)] = node.key
     out["measured"] = np.stack(
         [np.isin(sites, np.unique(air_v["site"].values[np.isfinite(air_v[sp].values)]))
          if sp in air_v else np.zeros(len(sites), bool) for sp in species_list], -1)
     return out
+
+
+def _bracket_variables(pair, how, shared, period_hours) -> dict:
+    """The variables of one bracket from its members' shares among reporting periods.
+
+    Parameters
+    ----------
+    pair, how : str
+        A key of :data:`workbench.budget.PAIRS`; ``"all_gas"`` or ``"all_particle"``.
+    shared : dict
+        member -> the output of :func:`share_to_periods` of its bracket rows
+        (deposition [mol m-2 of the member] scaled to the whole period from its own
+        sampled hours, coverage [1], covered hours [h], flux hours [h]).
+    period_hours : ndarray (P,)
+        Hours of each reporting period [h].
+
+    Returns
+    -------
+    dict
+        ``bracket_<pair>_<how>`` [mol m-2 of N]: the sum of the members' deposition,
+        each as mol of N (atoms of N per formula unit x mol of the member); NaN
+        where a member has no flux.  ``bracket_<pair>_<how>_air_coverage`` (site,
+        period) and ``..._flux_coverage`` (site, receptor, period) [1]: the smaller
+        of the members' (the weaker member's), for the bracket's status.
+    """
+    name = f"bracket_{pair}_{how}"
+    dims = ("site", "receptor", "period")
+    dep = sum(_species.get(m).atoms * d for m, (d, *_) in shared.items())
+    air_cov = np.min([c for _, c, _, _ in shared.values()], axis=0)
+    flux_cov = np.min([np.clip(fh / np.maximum(period_hours, 1), 0, 1)
+                       for *_, fh in shared.values()], axis=0)
+    gas, part = PAIRS[pair]
+    return {name: (dims, dep, {
+                "units": "mol m-2", "long_name": f"dry deposition of the {pair} pair "
+                f"({gas} + {part}) as N, {how.replace('_', ' ')}: each member over its own "
+                f"sampling periods with the Vd of {bracket_velocities((gas, part))[how]}"}),
+            f"{name}_air_coverage": (("site", "period"), air_cov, {
+                "units": "1", "long_name": "share of the period's hours with a "
+                "concentration, the smaller of the pair members'"}),
+            f"{name}_flux_coverage": (dims, flux_cov, {
+                "units": "1", "long_name": "share of the period's hours with a known "
+                "flux, the smaller of the pair members'"})}
 
 
 @_graph.stage("period_shares")
@@ -380,7 +462,8 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         ``vd_filled_share`` [1], ``flux_coverage`` [1] (hours with a concentration
         and a deposition velocity: 0 where Vd or the air density is missing for every
         hour, and the deposition is then NaN, never 0), ``measured`` (site, species),
-        ``mixing_ratio`` (species: given as a mixing ratio), the pair brackets and,
+        ``mixing_ratio`` (species: given as a mixing ratio), the pair brackets
+        (:func:`_bracket_variables`) and,
         when the rows hold the bidirectional NH3 exchange, ``nh3_net`` (deposition -
         emission, positive down) and ``nh3_emission`` [mol m-2] (site, receptor, period).
     """
@@ -428,6 +511,11 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
                    "point model, deposition - emission (positive down)"}),
                "nh3_emission": (dims3, e, {"units": "mol m-2",
                                            "long_name": "NH3 emission term over the period"})}
+    brackets = {}
+    for (pair, how), members in rows["bracket"].items():
+        brackets.update(_bracket_variables(
+            pair, how, {m: agg(("bracket", pair, how, m), r) for m, r in members.items()},
+            hours_p))
     ds = xr.Dataset(
         {"deposition": (("site", "receptor", "period", "species"), dep, {"units": "mol m-2"}),
          "coverage": (("site", "period", "species"), cov, {"units": "1"}),
@@ -441,10 +529,7 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
          "concentration": (("site", "period", "species"), conc,
                            {"units": "mol m-3", "long_name": "time-weighted mean concentration "
                             "over the covered hours (amount of species; ambient)"}),
-         **{f"bracket_{pair}_{how}": (("site", "receptor", "period"),
-                                      agg(("bracket", pair, how), r)[0],
-                                      {"units": "mol m-2"})
-            for (pair, how), r in rows["bracket"].items()}, **nh3},
+         **brackets, **nh3},
         coords={"site": sites, "receptor": receptors, "period": periods["label"].values,
                 "species": species_list})
     return ds

@@ -243,22 +243,27 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     parts.append("<h2>Dry nitrogen: the gas/particle bracket [kg N/ha per period]</h2>")
     parts.append("<p>Ammonium nitrate on filters shifts mass between HNO3 and pNO3 and between "
                  "NH3 and pNH4; HNO3 deposits far faster than pNO3. The bracket puts each pair "
-                 "all in the gas and all in the particle phase.</p>")
+                 "all in the gas and all in the particle phase: each member is deposited over "
+                 "its own sampling periods with that phase's deposition velocity, so members "
+                 "from different samplers (e.g. NH3 on monthly passive samplers, pNH4 on weekly "
+                 "filters) are combined; the run notes name them.</p>")
     dv = result.derived
     if "dry_N_all_gas_kg_ha" in dv:
-        frame = dv[["dry_N_all_gas_kg_ha", "dry_N_all_particle_kg_ha"]].to_dataframe().reset_index()
+        cols = [c for c in ("dry_N_all_gas_kg_ha", "dry_N_all_gas_status",
+                            "dry_N_all_particle_kg_ha", "dry_N_all_particle_status") if c in dv]
+        frame = dv[cols].to_dataframe().reset_index()
         meas = t[(t["element"] == "N") & (t["pathway"] == "dry") & (t["species"] == "all")
                  & (t["period"] != "span")][["site", "receptor", "period", "flux_kg_ha",
                                               "status", "missing_components"]]
         frame = frame.merge(meas.rename(columns={"flux_kg_ha": "dry_N_as_measured_kg_ha"}),
                             on=["site", "receptor", "period"], how="inner")
         parts.append("<p>The status and missing components are those of the measured dry N; "
-                     "a bracket shown as – could not be computed for that period (budget.nc has no "
-                     "value either; the notes on components say why, e.g. the two members "
-                     "of a pair on different samplers); the measured figure stands.</p>")
+                     "each bracket has its own status, no better than the weaker member of a "
+                     "pair (docs/budget.md); a bracket shown as – has a pair member without "
+                     "data in that period (budget.nc's bracket_*_note says which reason); the "
+                     "measured figure stands.</p>")
         parts.append(_table_html(frame[["site", "receptor", "period", "dry_N_as_measured_kg_ha",
-                                        "status", "missing_components",
-                                        "dry_N_all_gas_kg_ha", "dry_N_all_particle_kg_ha"]]))
+                                        "status", "missing_components", *cols]]))
     notes_col = t["note"].dropna() if "note" in t else pd.Series(dtype=str)
     notes_col = notes_col[notes_col != ""]
     if len(notes_col):
