@@ -158,7 +158,7 @@ def fill_arrays(vd, was, source, sites) -> dict:
 def prepared_air(o, air):
     """The air concentrations as the budget options read them (non-sea-salt sulfate).
     The pairs are never moved here: ``pair_split`` builds the moved components from
-    each member's own rows (:func:`dry_rows`, :func:`_apply_split`)."""
+    each member's own rows (:func:`dry_rows`, :func:`workbench.drypairs.apply_split`)."""
     return _nss_particles(air, o.budget.sulfate_basis)
 
 

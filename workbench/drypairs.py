@@ -110,8 +110,9 @@ def split_pairs(split, rows, air, nodes) -> dict:
         if not any(m in air for m in members):
             continue
         absent = [m for m in members if m not in air]
+        no_vd = [m for m in members if m not in nodes]
         why = (f"{absent[0]} is not in the air concentrations" if absent else
-               f"{' and '.join(m for m in members if m not in nodes)} has no deposition "
+               f"{' and '.join(no_vd)} {'has' if len(no_vd) == 1 else 'have'} no deposition "
                "velocity")
         rows["notes"].append(f"pair_split = {split} is not applied to the {pair} pair: "
                              f"{why}; the measured split stands")
