@@ -1,4 +1,4 @@
-"""The pair bracket of dry N (workbench/drycomponents.py): a pair whose members are never
+"""The pair bracket of dry N (workbench/drypairs.py): a pair whose members are never
 in one sample is combined across samplers, and a note says which samplers and periods.
 Invented concentrations."""
 from __future__ import annotations
@@ -8,7 +8,7 @@ import pandas as pd
 import xarray as xr
 
 from pair_reference import sample_by_sample_move
-from workbench.drycomponents import _combined_notes
+from workbench.drypairs import combined_notes as _combined_notes
 
 
 def _air():

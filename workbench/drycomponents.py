@@ -20,12 +20,9 @@ from . import graph as _graph
 from . import species as _species
 from .budget import COMPONENTS, PAIRS, BudgetError, BudgetOptions
 from .budgetstatus import bracket_velocities
-from .drypairs import apply_split, bracket_variables, combined_notes, split_pairs
-
-#: The former name of :func:`workbench.drypairs.combined_notes`.
-_combined_notes = combined_notes
 from .dryflux import (_count_cumulative, _hour_bounds, _inputs_for, deposition_rows, fill_diurnal,
                       period_axes, period_mean, share_to_periods)
+from .drypairs import apply_split, bracket_variables, combined_notes, split_pairs
 
 
 def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=7,

@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
+import xarray as xr
 
 from . import species as _species
 from .budget import PAIRS
@@ -80,8 +81,8 @@ def split_pairs(split, rows, air, nodes) -> dict:
     ----------
     split : {"measured", "all_gas", "all_particle"}
     rows : dict
-        :func:`workbench.drycomponents.dry_rows`' output so far (its ``"bracket"`` and ``"notes"``; the notes
-        are extended here).
+        The output of :func:`workbench.drycomponents.dry_rows` so far (its
+        ``"bracket"`` and ``"notes"``; the notes are extended here).
     air : xarray.Dataset
         The air concentrations.
     nodes : dict
