@@ -23,7 +23,8 @@ from scipy.constants import R
 
 from tiny_inputs import SITES
 from workbench.budget import BudgetOptions, assemble, derived
-from workbench.drycomponents import _pair_air, dry_components, dry_rows, prepare_velocities
+from pair_reference import sample_by_sample_move
+from workbench.drycomponents import dry_components, dry_rows, prepare_velocities
 from workbench.dryflux import period_deposition, to_periods
 from workbench.io import read_air, read_sites
 from workbench.periods import make_periods
@@ -125,7 +126,7 @@ def test_shared_samples_give_the_sample_by_sample_sum(tmp_path):
     beta = air.isel(period=np.flatnonzero(air["site"].values == "beta"))
     for how, into in (("all_gas", "NH3"), ("all_particle", "pNH4")):
         vd = vel[into][0].sel(site=["beta"])
-        rows, cs = period_deposition(_pair_air(beta, "ammonium", into), into, vd, None)
+        rows, cs = period_deposition(sample_by_sample_move(beta, "ammonium", into), into, vd, None)
         old = to_periods(rows, cs, ["beta"], JANUARY, vd["time"].values)["deposition"]
         np.testing.assert_allclose(dry[f"bracket_ammonium_{how}"].sel(site="beta").values,
                                    old.sel(site="beta").values, rtol=1e-12)
@@ -267,11 +268,11 @@ def demo(tmp_path_factory):
     return study, args, study.run(*args)
 
 
-def test_demo_farm_has_a_bracket_and_ridge_keeps_the_sample_sum(demo):
+def test_demo_farm_has_a_bracket_and_pair_split_uses_it(demo):
     """farm: NH3 monthly passive, pNH4 weekly filters: the bracket is a number now, and a
-    note names the samplers.  ridge: both on one filter pack, so the all-gas bracket
-    equals the former sample-by-sample sum, which pair_split = "all_gas" still uses for
-    the main numbers (the HNO3 and NH3 components then hold the moved pair)."""
+    note names the samplers.  Under pair_split = "all_gas" the HNO3 and NH3 components
+    hold the moved pair, built from the bracket's rows: at ridge (both on one filter pack)
+    and at farm alike (tests/test_pair_split.py has the rest)."""
     study, args, res = demo
     y = res.years
     farm = y["active"].sel(site="farm").values              # the receptors farm asks for
@@ -283,15 +284,15 @@ def test_demo_farm_has_a_bracket_and_ridge_keeps_the_sample_sum(demo):
             == {"complete"}
     opts = dataclasses.replace(args[2], pair_split="all_gas")
     moved = study.run(args[0], args[1], opts, *args[3:]).years
-    ridge = y["active"].sel(site="ridge").values
-    for sp, pair in (("HNO3", "nitrate"), ("NH3", "ammonium")):
-        comp = moved["deposition"].sel(site="ridge", component=f"N/dry/{sp}").values[ridge]
-        assert np.isfinite(comp).all()
-        np.testing.assert_allclose(y[f"bracket_{pair}_all_gas"].sel(site="ridge").values[ridge],
-                                   comp, rtol=1e-12)
-    # at farm the sample-by-sample move finds no sample with both: NH3 is missing there
-    assert (moved["status"].sel(site="farm", component="N/dry/NH3").values[farm]
-            == "missing").all()
+    for site in ("ridge", "farm"):
+        act = y["active"].sel(site=site).values
+        for sp, pair in (("HNO3", "nitrate"), ("NH3", "ammonium")):
+            comp = moved["deposition"].sel(site=site, component=f"N/dry/{sp}").values[act]
+            assert np.isfinite(comp).all()
+            np.testing.assert_allclose(y[f"bracket_{pair}_all_gas"].sel(site=site).values[act],
+                                       comp, rtol=1e-12)
+            assert (moved["status"].sel(site=site, component=f"N/dry/{sp}").values[act]
+                    == "complete").all()
 
 
 def test_demo_notes_name_the_samplers(demo):

@@ -1,4 +1,4 @@
-"""The pair bracket of dry N (workbench/drycomponents.py): a pair whose members are never
+"""The pair bracket of dry N (workbench/drypairs.py): a pair whose members are never
 in one sample is combined across samplers, and a note says which samplers and periods.
 Invented concentrations."""
 from __future__ import annotations
@@ -7,7 +7,8 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from workbench.drycomponents import _combined_notes, _pair_air
+from pair_reference import sample_by_sample_move
+from workbench.drypairs import combined_notes as _combined_notes
 
 
 def _air():
@@ -36,9 +37,9 @@ def test_members_never_in_one_sample_are_combined_and_named():
     assert "NH3 from FP-N (1 samples of about 31 d)" in notes[0]
     assert "pNH4 from FF-1 (2 samples of about 7 d)" in notes[0]
     assert "(3 samples hold one member only)" in notes[0]
-    # moving the concentrations sample by sample (pair_split) leaves the farm empty,
-    # which is why the bracket adds the members' depositions instead
-    moved = _pair_air(air, "ammonium", "NH3")["NH3"].values
+    # moving the concentrations sample by sample (the former bracket and pair_split)
+    # leaves the farm empty, which is why both add the members' depositions instead
+    moved = sample_by_sample_move(air, "ammonium", "NH3")["NH3"].values
     assert np.isnan(moved[:3]).all()
     np.testing.assert_allclose(moved[3:], [1.3, 1.5])
 

@@ -91,8 +91,11 @@ class BudgetOptions:
     sulfate_basis : {"nss", "total"}
         Wet SO4 and dry pSO4 as non-sea-salt (default; critical-load work) or total.
     pair_split : {"measured", "all_gas", "all_particle"}
-        How the nitrate and ammonium pairs enter the main numbers; the bracket of the
-        two extremes is always reported.
+        How the nitrate (HNO3 + pNO3) and ammonium (NH3 + pNH4) pairs enter the main
+        numbers: as measured, or each pair all in its gas (particle) species, both
+        members deposited with that species' Vd, each over its own sampling periods
+        (members on different samplers combine), the other member 0; the main dry N
+        then equals the bracket of the two extremes, which is always reported.
     air_censored : {"half", "limit", "zero"}
         Concentrations below detection (common practice: half the limit).
     bulk_correction : {"none", "exclude_particles", "scale_wet"}

@@ -22,6 +22,7 @@ from .budget import COMPONENTS, PAIRS, BudgetError, BudgetOptions
 from .budgetstatus import bracket_velocities
 from .dryflux import (_count_cumulative, _hour_bounds, _inputs_for, deposition_rows, fill_diurnal,
                       period_axes, period_mean, share_to_periods)
+from .drypairs import apply_split, bracket_variables, combined_notes, split_pairs
 
 
 def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=7,
@@ -112,77 +113,6 @@ def _nss_particles(air: xr.Dataset, basis: str) -> xr.Dataset:
     return air
 
 
-def _pair_air(air: xr.Dataset, pair: str, into: str) -> xr.Dataset:
-    """Air dataset with both members of a pair moved into one species (`into`)."""
-    gas, part = PAIRS[pair]
-    n = air.sizes["period"]
-    g = air[gas].values if gas in air else np.full(n, np.nan)
-    p = air[part].values if part in air else np.full(n, np.nan)
-    total = np.where(np.isfinite(g) & np.isfinite(p), g + p, np.nan)
-    other = part if into == gas else gas
-    new = {into: xr.Variable(("period",), total,
-                             dict(air[into].attrs if into in air else air[other].attrs)),
-           f"{into}_censored": xr.Variable(("period",), np.zeros(n, bool)),
-           f"{into}_detection_limit": xr.Variable(("period",), np.full(n, np.nan))}
-    if f"{other}_method" in air and f"{into}_method" not in air:
-        new[f"{into}_method"] = air[f"{other}_method"].variable
-    if other in air:
-        new[other] = (air[other] * 0.0).variable
-    return air.assign(new)                       # one merge (each item set costs ~1 ms)
-
-
-def _combined_notes(air: xr.Dataset, pair: str) -> list:
-    """Notes for the sites whose pair members do not share every sample (e.g. NH3 on
-    monthly passive samplers, pNH4 on weekly filters): the bracket there adds the two
-    members, each deposited over its own sampling periods (:func:`dry_rows`); the note
-    names the samplers and their usual sample length [d].
-
-    Parameters
-    ----------
-    air : xarray.Dataset
-        Air concentrations (dim ``period``) with ``site``, ``start``, ``end`` and,
-        when given, ``sampler_id``.
-    pair : str
-        A key of :data:`workbench.budget.PAIRS`.
-
-    Returns
-    -------
-    list of str
-        One note per site where both members are measured and some sample holds one
-        member only (none where every sample holds both or neither).
-    """
-    gas, part = PAIRS[pair]
-    n = air.sizes["period"]
-
-    def has(sp):                                   # a value or a censored value
-        cens = air[f"{sp}_censored"].values if f"{sp}_censored" in air else False
-        return np.isfinite(air[sp].values) | cens
-    g, p = has(gas), has(part)
-    frame = pd.DataFrame({
-        "site": air["site"].values.astype(str),
-        "sampler": (air["sampler_id"].values.astype(str) if "sampler_id" in air
-                    else np.full(n, "?", object)),
-        "days": (air["end"].values - air["start"].values) / np.timedelta64(1, "D"),
-        "g": g, "p": p})
-    both = frame.groupby("site")[["g", "p"]].any()
-    lone = frame[(frame["g"] != frame["p"])].groupby("site").size()
-    sites = sorted(s for s in both.index[both["g"] & both["p"]] if s in lone.index)
-    if not sites:
-        return []
-    # one table of (site, member, sampler) -> samples and median length, read per site
-    frame = frame[frame["site"].isin(sites)]
-    long = pd.concat([frame[frame[k]].assign(member=sp) for k, sp in (("g", gas), ("p", part))])
-    per = long.groupby(["site", "member", "sampler"])["days"].agg(["size", "median"])
-    text = (per.index.get_level_values("sampler") + " (" + per["size"].astype(str)
-            + " samples of about " + per["median"].round().astype(int).astype(str) + " d)")
-    text = text.groupby(level=["site", "member"]).agg(", ".join)
-    return [f"{gas} and {part} at {s}: the {pair} bracket (dry N with the pair all as gas or "
-            f"all as particle) is combined across samplers: {gas} from {text[(s, gas)]}, "
-            f"{part} from {text[(s, part)]}; each member is deposited over its own sampling "
-            f"periods and scaled to the reporting period by its own coverage "
-            f"({int(lone[s])} samples hold one member only)" for s in sites]
-
-
 def _fingerprint(air: xr.Dataset, species: str) -> str:
     """Digest of what the rows of a species read from the air dataset (its values,
     censoring, detection limits, methods, sites and times), for content-keyed caches."""
@@ -221,18 +151,12 @@ def fill_arrays(vd, was, source, sites) -> dict:
 
 
 # ------------------------------------------------------------------ stages of the rows
-@_graph.stage("air_basis", reads={"budget": ("sulfate_basis", "pair_split")})
+@_graph.stage("air_basis", reads={"budget": ("sulfate_basis",)})
 def prepared_air(o, air):
-    """The air concentrations as the budget options read them (non-sea-salt sulfate,
-    the pairs moved into one member)."""
-    options = o.budget
-    prepared = _nss_particles(air, options.sulfate_basis)
-    if options.pair_split != "measured":
-        for pair, (gas, part) in PAIRS.items():
-            if gas in prepared and part in prepared:
-                prepared = _pair_air(prepared, pair,
-                                     gas if options.pair_split == "all_gas" else part)
-    return prepared
+    """The air concentrations as the budget options read them (non-sea-salt sulfate).
+    The pairs are never moved here: ``pair_split`` builds the moved components from
+    each member's own rows (:func:`dry_rows`, :func:`workbench.drypairs.apply_split`)."""
+    return _nss_particles(air, o.budget.sulfate_basis)
 
 
 @_graph.stage("air_content")
@@ -301,8 +225,10 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
         (``air_basis``), each species' air side (``flux_inputs``, keyed by the content
         of the air columns it reads) and rows (``species_rows``; a bracket member is a
         species with the other member's Vd) and the NH3 emission rows; so a change of
-        one species' Vd recomputes that species and the brackets using its Vd only,
-        and a change of the pair split the pair members only.
+        one species' Vd recomputes that species and the brackets using its Vd only.
+        The pair split moves no concentration: its components are built from the
+        bracket's rows (a change of it computes at most the pNH4 rows with the NH3
+        exchange's Vd).
     counts : dict, optional
         As for :meth:`workbench.graph.Graph.run`.
 
@@ -314,8 +240,15 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
         species -> cumulative counts of modelled and filled Vd hours; ``"bracket"``:
         (pair, how) -> member -> the member's rows over its own sampling periods with
         the Vd of :func:`bracket_velocities` (the pair need not share samples);
+        ``"split"``: pair -> (species moved into, other member, how) under
+        ``options.pair_split`` (:func:`workbench.drypairs.split_pairs`; empty for
+        "measured"), whose components :func:`dry_components` builds from the bracket's
+        rows (:func:`workbench.drypairs.apply_split`), the moved-into species
+        ``measured`` where both members are;
         ``"nh3_exchange"`` (when `vel` holds :data:`NH3_EXCHANGE`): the deposition and
-        emission parts of the net NH3 flux per NH3 sampling period; ``"notes"``,
+        emission parts of the net NH3 flux per NH3 sampling period (and, when
+        ``pair_split`` moves pNH4 into NH3, ``"moved"``: the pNH4 rows with the
+        exchange's Vd); ``"notes"``,
         ``"measured"`` (site x species bool), ``"receptors"``, ``"times"``, ``"sites"``;
         ``"keys"``: the node key of each piece of rows (for :func:`dry_components`;
         a bracket member's under ``("bracket", pair, how, member)``).
@@ -365,19 +298,12 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
         out["keys"][sp] = node.key
         out["vd_cum"][sp] = (nodes[sp].value["c_valid"], nodes[sp].value["c_fill"])
         out["notes"].extend(notes)
-    if "NH3" in out["species"] and all(k in nodes for k in NH3_EXCHANGE):
-        inputs, dep = one(prepared, "NH3", "NH3_bidirectional")
-        em = run("nh3_emission_rows", deps={"deposition": dep, "inputs": inputs,
-                                            "emission": nodes["NH3_emission"],
-                                            "times": times_node})
-        out["nh3_exchange"] = {"deposition": dep.value[0], "emission": em.value}
-        out["keys"]["nh3|deposition"], out["keys"]["nh3|emission"] = dep.key, em.key
     # the brackets: each member over its own sampling periods with the Vd of the phase
     # (deposition is linear in C: F(gas + particle at Vd) = F(gas at Vd) + F(particle
     # at Vd)), from the air as read, so that the bracket does not depend on pair_split
     for pair, (gas, part) in PAIRS.items():
         if gas in air_v and part in air_v and gas in nodes and part in nodes:
-            out["notes"].extend(_combined_notes(air.value, pair))
+            out["notes"].extend(combined_notes(air.value, pair))
             for how, vd_sp in bracket_velocities(PAIRS[pair]).items():
                 out["bracket"][(pair, how)] = {}
                 for member in (gas, part):
@@ -387,49 +313,24 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
     out["measured"] = np.stack(
         [np.isin(sites, np.unique(air_v["site"].values[np.isfinite(air_v[sp].values)]))
          if sp in air_v else np.zeros(len(sites), bool) for sp in species_list], -1)
+    # pair_split: the main components of a pair from the bracket's rows (_apply_split)
+    out["split"] = split_pairs(options.pair_split, out, air_v, nodes)
+    for pair, (into, other, _) in out["split"].items():
+        k_in, k_out = species_list.index(into), species_list.index(other)
+        out["measured"][:, k_in] &= out["measured"][:, k_out]    # the weaker member's
+    if "NH3" in out["species"] and all(k in nodes for k in NH3_EXCHANGE):
+        inputs, dep = one(prepared, "NH3", "NH3_bidirectional")
+        em = run("nh3_emission_rows", deps={"deposition": dep, "inputs": inputs,
+                                            "emission": nodes["NH3_emission"],
+                                            "times": times_node})
+        out["nh3_exchange"] = {"deposition": dep.value[0], "emission": em.value}
+        out["keys"]["nh3|deposition"], out["keys"]["nh3|emission"] = dep.key, em.key
+        moved = out["split"].get("ammonium")
+        if moved is not None and moved[0] == "NH3":     # pNH4 moved into the NH3 exchange
+            _, node = one(air, moved[1], "NH3_bidirectional")
+            out["nh3_exchange"]["moved"] = node.value[0]
+            out["keys"]["nh3|moved"] = node.key
     return out
-
-
-def _bracket_variables(pair, how, shared, period_hours) -> dict:
-    """The variables of one bracket from its members' shares among reporting periods.
-
-    Parameters
-    ----------
-    pair, how : str
-        A key of :data:`workbench.budget.PAIRS`; ``"all_gas"`` or ``"all_particle"``.
-    shared : dict
-        member -> the output of :func:`share_to_periods` of its bracket rows
-        (deposition [mol m-2 of the member] scaled to the whole period from its own
-        sampled hours, coverage [1], covered hours [h], flux hours [h]).
-    period_hours : ndarray (P,)
-        Hours of each reporting period [h].
-
-    Returns
-    -------
-    dict
-        ``bracket_<pair>_<how>`` [mol m-2 of N]: the sum of the members' deposition,
-        each as mol of N (atoms of N per formula unit x mol of the member); NaN
-        where a member has no flux.  ``bracket_<pair>_<how>_air_coverage`` (site,
-        period) and ``..._flux_coverage`` (site, receptor, period) [1]: the smaller
-        of the members' (the weaker member's), for the bracket's status.
-    """
-    name = f"bracket_{pair}_{how}"
-    dims = ("site", "receptor", "period")
-    dep = sum(_species.get(m).atoms * d for m, (d, *_) in shared.items())
-    air_cov = np.min([c for _, c, _, _ in shared.values()], axis=0)
-    flux_cov = np.min([np.clip(fh / np.maximum(period_hours, 1), 0, 1)
-                       for *_, fh in shared.values()], axis=0)
-    gas, part = PAIRS[pair]
-    return {name: (dims, dep, {
-                "units": "mol m-2", "long_name": f"dry deposition of the {pair} pair "
-                f"({gas} + {part}) as N, {how.replace('_', ' ')}: each member over its own "
-                f"sampling periods with the Vd of {bracket_velocities((gas, part))[how]}"}),
-            f"{name}_air_coverage": (("site", "period"), air_cov, {
-                "units": "1", "long_name": "share of the period's hours with a "
-                "concentration, the smaller of the pair members'"}),
-            f"{name}_flux_coverage": (dims, flux_cov, {
-                "units": "1", "long_name": "share of the period's hours with a known "
-                "flux, the smaller of the pair members'"})}
 
 
 @_graph.stage("period_shares")
@@ -463,7 +364,7 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         and a deposition velocity: 0 where Vd or the air density is missing for every
         hour, and the deposition is then NaN, never 0), ``measured`` (site, species),
         ``mixing_ratio`` (species: given as a mixing ratio), the pair brackets
-        (:func:`_bracket_variables`) and,
+        (:func:`workbench.drypairs.bracket_variables`) and,
         when the rows hold the bidirectional NH3 exchange, ``nh3_net`` (deposition -
         emission, positive down) and ``nh3_emission`` [mol m-2] (site, receptor, period).
     """
@@ -500,10 +401,20 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         c_valid, c_fill = rows["vd_cum"][sp]
         vd_cov[..., k] = (c_valid[:, :, pb] - c_valid[:, :, pa]) / hours_p
         filled_share[..., k] = (c_fill[:, :, pb] - c_fill[:, :, pa]) / np.maximum(pb - pa, 1)
+    shared = {(pair, how): {m: agg(("bracket", pair, how, m), r) for m, r in members.items()}
+              for (pair, how), members in rows["bracket"].items()}
+    split = rows.get("split", {})
+    apply_split(split, shared, species_list, hours_p, dep, cov, flux_cov, ratio, conc)
     nh3 = {}
     if "nh3_exchange" in rows:        # net = deposition part - emission part, per period
         ex = rows["nh3_exchange"]
         d_bd = agg("nh3|deposition", ex["deposition"])[0]
+        if "moved" in ex:             # pair_split all_gas: pNH4 with the exchange's Vd too
+            moved = split["ammonium"][1]
+            d_bd = d_bd + (_species.get(moved).atoms / _species.get("NH3").atoms
+                           * agg("nh3|moved", ex["moved"])[0])
+        elif split.get("ammonium", ("NH3",))[0] != "NH3":    # all_particle: C(NH3) = 0
+            d_bd = np.where(np.isfinite(d_bd), 0.0, np.nan)
         e = agg("nh3|emission", ex["emission"])[0]
         dims3 = ("site", "receptor", "period")
         nh3 = {"nh3_net": (dims3, d_bd - e, {
@@ -512,10 +423,8 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
                "nh3_emission": (dims3, e, {"units": "mol m-2",
                                            "long_name": "NH3 emission term over the period"})}
     brackets = {}
-    for (pair, how), members in rows["bracket"].items():
-        brackets.update(_bracket_variables(
-            pair, how, {m: agg(("bracket", pair, how, m), r) for m, r in members.items()},
-            hours_p))
+    for (pair, how), members in shared.items():
+        brackets.update(bracket_variables(pair, how, members, hours_p))
     ds = xr.Dataset(
         {"deposition": (("site", "receptor", "period", "species"), dep, {"units": "mol m-2"}),
          "coverage": (("site", "period", "species"), cov, {"units": "1"}),

@@ -8,7 +8,9 @@ wrong.  This module takes the computed pieces of a run once and keeps, per site:
 * dry: each air-sampling period's contribution to each reporting period and receptor
   ``A[n, P, R]`` [mol m-2] (:func:`workbench.dryflux.share_to_periods` with
   ``per_row``), whether its concentration was below detection, and the share of its
-  hours whose Vd was gap-filled ``phi[n, R]`` [1];
+  hours whose Vd was gap-filled ``phi[n, R]`` [1]; under ``pair_split`` the species a
+  pair is moved into holds both members' sampling periods with its Vd, the other none
+  (:func:`workbench.drypairs.component_rows`);
 * wet: each (sample, period) piece's precipitation weight ``w`` [mm], the sample's
   concentrations [mol m-3] and whether they were valid or below detection, and which
   periods had their PWM filled from the multi-year seasonal means.
@@ -39,7 +41,8 @@ class DryPieces:
     contrib: np.ndarray      #: (n, P, R) [mol m-2] each sampling period's part
     censored: np.ndarray     #: (n,) bool, concentration below detection (substituted)
     filled: np.ndarray       #: (n, R) [1] share of the row's hours with a gap-filled Vd
-    row_id: np.ndarray       #: (n,) int, row number within the species (stable per site)
+    row_id: np.ndarray       #: (n,) int, row number within the component's rows (stable
+    #: per site; under pair_split the moved-into species' rows are both members')
 
 
 @dataclass
@@ -96,6 +99,7 @@ def period_years(periods: pd.DataFrame) -> np.ndarray:
 
 
 def _dry_layers(rows, periods, sites, n_r):
+    from ..drypairs import component_rows
     from ..dryflux import period_axes, share_to_periods
     out = [dict() for _ in sites]
     if rows is None:
@@ -103,15 +107,26 @@ def _dry_layers(rows, periods, sites, n_r):
     axes = period_axes(periods)
     times = rows["times"]
     row_sites = list(rows["sites"])
-    for sp, r in rows["species"].items():
-        _, _, _, _, per_row = share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"],
-                                            r["cs"], len(row_sites), axes, times, r["start"],
-                                            r["end"], per_row=True)
-        _, c_fill = rows["vd_cum"][sp]
-        si, a, b = r["site_index"], r["a"], r["b"]
-        filled = (c_fill[si, :, b] - c_fill[si, :, a]) / np.maximum(b - a, 1)[:, None]
-        cens = np.asarray(r.get("censored", np.zeros(len(si), bool)), bool)
-        per_row = np.where(np.isfinite(per_row), per_row, 0.0)
+    for sp in DRY_SPECIES:
+        # the rows behind the component: its own, or under pair_split both members'
+        # rows with its Vd (each shared by its own coverage) or none (a 0 component)
+        parts = component_rows(rows, sp)
+        if not parts:
+            continue
+        _, c_fill = rows["vd_cum"][sp]          # the Vd of `sp` in every part
+        per_row, si, filled, cens = [], [], [], []
+        for _, r, factor in parts:
+            *_, pr = share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"],
+                                      r["cs"], len(row_sites), axes, times, r["start"],
+                                      r["end"], per_row=True)
+            a, b = r["a"], r["b"]
+            per_row.append(factor * np.where(np.isfinite(pr), pr, 0.0))
+            si.append(r["site_index"])
+            filled.append((c_fill[r["site_index"], :, b] - c_fill[r["site_index"], :, a])
+                          / np.maximum(b - a, 1)[:, None])
+            cens.append(np.asarray(r.get("censored", np.zeros(len(a), bool)), bool))
+        per_row, si = np.concatenate(per_row), np.concatenate(si)
+        filled, cens = np.concatenate(filled), np.concatenate(cens)
         for k, s in enumerate(sites):
             if s not in row_sites:
                 continue
