@@ -189,8 +189,8 @@ def test_demo_main_dry_n_equals_the_bracket(demo, how):
     bracket's dry N (value and status), farm included (NH3 monthly passive, pNH4
     weekly filters).  mere has a bulk collector with bulk_correction
     "exclude_particles": its particles are taken as caught by the collector (0 dry),
-    so under all_particle the moved pair is 0 there while the bracket (which applies
-    no bulk correction) is not."""
+    so under all_particle the moved pair is 0 there, and so is the all-particle
+    bracket (budgetstatus.bulk_caught_brackets)."""
     _, _, runs = demo
     y, d = runs[how].years, runs[how].derived
     act = y["active"].values.copy()
@@ -205,8 +205,12 @@ def test_demo_main_dry_n_equals_the_bracket(demo, how):
         for sp in ("pNO3", "pNH4", "HNO3", "NH3"):
             assert (y["deposition"].sel(site="mere", component=f"N/dry/{sp}").values[
                 act[mere]] == 0).all()
-        act[mere] = False
-    assert act.sum() >= 8
+        for pair in ("nitrate", "ammonium"):
+            b = y[f"bracket_{pair}_all_particle"].sel(site="mere").values[act[mere]]
+            assert (b == 0).all()
+            assert "caught by the bulk collector" in str(
+                y[f"bracket_{pair}_all_particle_note"].sel(site="mere").values[act[mere]][0])
+    assert act.sum() >= 10
     np.testing.assert_allclose(main[act], d[f"dry_N_{how}_kg_ha"].values[act], rtol=1e-9)
     np.testing.assert_array_equal(y["total_status"].sel(total="N_dry").values[act],
                                   d[f"dry_N_{how}_status"].values[act])

@@ -25,8 +25,8 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .budgetstatus import (bracket_outputs, dry_status, join_notes, nh3_net_component,
-                           wet_component, wet_outputs)
+from .budgetstatus import (bracket_outputs, bulk_caught_brackets, dry_status, join_notes,
+                           nh3_net_component, wet_component, wet_outputs)
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
 from .units import deposition_in, element_deposition_in
@@ -399,8 +399,11 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
               "period_hours": ("period", periods["hours"].to_numpy(dtype=float)),
               "annual_factor": ("period", annual_factor(periods)), "total": names}
     if dry is not None:
-        data.update(bracket_outputs(dr, PAIRS, d_species, d_vdc, d_fs, d_meas, d_sok, d_ratio,
-                                    options))
+        sp_index = [c[2] for c in comps].index
+        data.update(bulk_caught_brackets(
+            bracket_outputs(dr, PAIRS, d_species, d_vdc, d_fs, d_meas, d_sok, d_ratio, options),
+            PAIRS, bulk, lambda p: (dep[..., sp_index(p)], status[..., sp_index(p)],
+                                    compl[..., sp_index(p)]), options))
         conc = dr.variables["concentration"]
         data["air_concentration"] = xr.Variable(
             tuple("air_species" if d == "species" else d for d in conc.dims), conc.values,

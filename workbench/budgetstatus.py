@@ -305,3 +305,51 @@ def bracket_outputs(dr, pairs, species, vd_cov, filled_share, measured, season_o
             out[f"{name}_note"] = xr.Variable(dims, note.astype(object), {
                 "long_name": f"why {name} is missing or flagged"})
     return out
+
+
+def bulk_caught_brackets(brackets, pairs, bulk, component_of, options):
+    """The all-particle brackets at bulk-collector sites under ``bulk_correction =
+    "exclude_particles"``: taken as caught by the collector, as the particle components.
+
+    With the pair all as particle, both members' mass deposits as particles, and at a
+    bulk site the budget takes particle dry deposition as caught in the bulk "wet" ion
+    (docs/budget.md, bulk collectors): the bracket is 0 there, with the status and
+    completeness of the particle component (that of its wet ion), so that
+    ``dry_N_all_particle`` equals the main numbers under ``pair_split =
+    "all_particle"``.  The all-gas brackets are left as they are (gases are not taken
+    as caught).
+
+    Parameters
+    ----------
+    brackets : dict
+        :func:`bracket_outputs`; changed in place and returned.
+    pairs : dict
+        :data:`workbench.budget.PAIRS`.
+    bulk : ndarray of bool (site)
+        The site has a bulk collector.
+    component_of : callable
+        Particle species -> (deposition [mol m-2], status, completeness [1]) on (site,
+        receptor, period), the budget's own component after its bulk rule.
+    options : BudgetOptions
+
+    Returns
+    -------
+    dict
+    """
+    if options.bulk_correction != "exclude_particles" or not bulk.any():
+        return brackets
+    for pair, (_, particle) in pairs.items():
+        name = f"bracket_{pair}_all_particle"
+        if name not in brackets:
+            continue
+        dep, st, compl = component_of(particle)
+        at = bulk[:, None, None] & np.ones(dep.shape, bool)
+        for var, new in ((name, dep), (f"{name}_status", st),
+                         (f"{name}_completeness", compl),
+                         (f"{name}_note", np.full(dep.shape, "caught by the bulk collector: "
+                                                  f"the {pair} pair as particles is counted in "
+                                                  "the wet deposition, 0 here (bulk_correction "
+                                                  "exclude_particles)", dtype=object))):
+            v = brackets[var]
+            brackets[var] = v.copy(data=np.where(at, new, v.values))
+    return brackets
