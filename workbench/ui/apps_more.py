@@ -157,7 +157,10 @@ class SensitivityExplorer(widgets.VBox):
             self.note_w.value = f"Baseline: {html.escape(str(base_shown))} (star)."
         refresh(self.fig, fig)
         show = shown.pivot_table(index="value", columns="total", values="rate", sort=False)
-        self.table_w.value = table_html(show.reset_index())
+        show.columns = [f"{c} [{unit}]" for c in show.columns]     # every number its unit
+        show.columns.name = None
+        self.table_w.value = table_html(show.reset_index().rename(
+            columns={"value": a.label if "[" in a.label else f"{a.label} (setting)"}))
         self.progress.done("sweep done")
         return self.table
 
@@ -217,6 +220,25 @@ class NetworkOverview(widgets.VBox):
         cat = self.session.study.inputs.catalogue
         return pd.concat([network_table(r.years, cat, unit) for r in self.results.values()],
                          ignore_index=True)
+
+    def totals(self, unit=None) -> pd.DataFrame:
+        """The annual totals as a table to read: one row per site and year, for S and N
+        the value [unit, named in the column] beside its status and the components
+        without data, so that a partial or flagged total never reads as a complete one.
+        """
+        unit = unit or self.unit_w.value
+        t = self.table(unit)
+        wide = t.pivot_table(index=["site", "receptor", "period"], columns="element",
+                             values=["value", "status", "missing"], aggfunc="first",
+                             sort=False)
+        cols = {}
+        for el in ("S", "N"):
+            if ("value", el) in wide:
+                cols[f"{el} total [{unit}]"] = wide[("value", el)]
+                cols[f"{el} status"] = wide[("status", el)]
+                cols[f"{el} without data"] = wide[("missing", el)].replace(
+                    {"": "-", "nan": "-"}).fillna("-")
+        return pd.DataFrame(cols)
 
     def _draw(self, create=False):
         unit = self.unit_w.value

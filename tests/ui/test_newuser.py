@@ -1,0 +1,142 @@
+"""What a new user tripped on in the apps (a walk through the notebooks in a browser):
+a cut control label, no dry-N bracket beside the bars, a gas-schemes tab speaking of
+"A" and "B" that nothing on screen named, "emission offsets 0 %" beside a bar that
+changed, numbers without units, and a plain table of the network's totals in which a
+partial total read like a complete one."""
+import re
+import warnings
+
+import numpy as np
+import pytest
+
+from ui.demo_subset import write_demo_subset
+
+#: Molar mass of nitrogen [g/mol]: IUPAC standard atomic weight of N, 14.007 (conventional
+#: value; 14.0067 from memory of the 2013 table).
+M_N = 14.0067
+
+
+@pytest.fixture(scope="module")
+def ridge_app(session):
+    from workbench.ui.apps import SiteExplorer
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        return SiteExplorer(session, site="ridge", years=(2021, 2021))
+
+
+@pytest.fixture(scope="module")
+def farm_session(tmp_path_factory):
+    from workbench.ui.session import Session
+    sc = write_demo_subset(tmp_path_factory.mktemp("farm_nu"), ("farm",), 2021, 2021)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        return Session.open(sc)
+
+
+def _number_after(text, word):
+    m = re.search(word + r" (-?[\d,]+\.?\d*)", text)
+    assert m, (word, text)
+    return float(m.group(1).replace(",", ""))
+
+
+def test_long_control_labels_may_wrap(ridge_app):
+    """The assumptions box carries the class that the app's style rule lets wrap, and the
+    rule is in the app (the browser test checks that no label is cut)."""
+    from workbench.ui.controls import WRAP_LABELS_CSS
+    def walk(w):
+        yield w
+        for c in getattr(w, "children", ()):
+            yield from walk(c)
+    acc, = [w for w in walk(ridge_app) if "wb-assumptions" in w._dom_classes]
+    assert "wb-wrap-labels" in acc._dom_classes
+    styles = [w for w in ridge_app.children if getattr(w, "value", None) == WRAP_LABELS_CSS]
+    assert len(styles) == 1
+    assert ".wb-wrap-labels .widget-label" in WRAP_LABELS_CSS and "white-space: normal" in WRAP_LABELS_CSS
+
+
+def test_dry_n_bracket_line_beside_the_bars(ridge_app):
+    """The line gives the dry N of the bars and both ends of the bracket; each end equals
+    the dry N of a run with the pairs moved to that phase (the same engine by another
+    path: the "gas/particle pairs" control), in kg/ha/yr and in eq/ha/yr."""
+    app = ridge_app
+    text = app.bracket_w.value
+    assert "as measured" in text and "bracket" in text
+    shown = _number_after(text, "Dry N")
+    low = _number_after(text, "bracket")
+    high = _number_after(text, "to")
+    assert shown == pytest.approx(app._totals.loc["N_dry", "value"], abs=0.051)
+    assert low < shown < high
+    for split, end in (("all_gas", high), ("all_particle", low)):
+        app.controls["budget.pair_split"].value = split
+        assert _number_after(app.bracket_w.value, "Dry N") == pytest.approx(end, abs=0.051)
+        assert {"all_gas": "pairs all as gas", "all_particle": "pairs all as particle"}[split] \
+            in app.bracket_w.value
+    app.controls["budget.pair_split"].value = "measured"
+    app.unit_w.value = "eq/ha/yr"
+    try:
+        eq_high = _number_after(app.bracket_w.value, "to")
+        # 1 kg N = 1000 / M_N mol N = 1000 / M_N eq (N counts one charge, as NO3- or NH4+)
+        assert eq_high == pytest.approx(high * 1000.0 / M_N, rel=0.01)
+    finally:
+        app.unit_w.value = "kg/ha/yr"
+
+
+def test_dry_n_bracket_not_computed_says_so(farm_session):
+    """The demo farm's NH3 and pNH4 come from different samplers: no bracket, and the
+    line says so instead of showing a number."""
+    from workbench.ui.bracket import bracket_line, dry_n_bracket
+    r = farm_session.run(farm_session.baseline, "farm", 2021, 2021, "year", "crops")
+    b = dry_n_bracket(r.years, r.derived, "farm", "crops")
+    assert np.isfinite(b["shown"]) and not b["computed"]
+    text = bracket_line(r.years, r.derived, "farm", "crops")
+    assert "not computed" in text and "the dry N shown stands" in text
+
+
+def test_scheme_tab_names_the_chosen_scheme(ridge_app):
+    app = ridge_app
+    app.tabs.selected_index = list(app.tabs.children).index(app.schemes.page)
+    chosen = app.settings.dry.gas_scheme
+    text = app.schemes.chosen_w.value
+    other = [s for s in app.schemes.runs if s != chosen]
+    assert f"uses <b>{chosen}</b>" in text and other and f"<b>{other[0]}</b>" in text
+    assert " A " not in text and "B the other" not in app.schemes.page.children[0].value
+    app.tabs.selected_index = 0
+
+
+def test_nh3_share_under_one_percent_has_a_decimal(ridge_app):
+    """A conifer forest's NH3 emission is small: the share shows a decimal, never
+    "offsets 0 %" beside a bar that moved."""
+    app = ridge_app
+    app.controls["dry.nh3_treatment"].value = "bidirectional"
+    try:
+        text = app.nh3_w.value
+        share = re.search(r"emission offsets (-?[\d.]+) %", text)
+        assert share, text
+        net = _number_after(text, "Dry NH3")
+        if abs(float(share.group(1))) < 1:
+            assert "." in share.group(1)
+        assert float(share.group(1)) != 0.0 or net == 0.0
+    finally:
+        app.controls["dry.nh3_treatment"].value = "deposition_only"
+
+
+def test_network_totals_carry_status_and_unit(two_sites_2021):
+    """mere has no NO2: its N total is partial, and the table says so beside the value."""
+    from workbench.ui.apps import NetworkOverview
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        net = NetworkOverview.from_scenario(two_sites_2021)
+    t = net.totals()
+    assert {"S total [kg/ha/yr]", "S status", "N total [kg/ha/yr]", "N status",
+            "N without data"} <= set(t.columns)
+    mere = t.xs("mere", level="site").iloc[0]
+    assert mere["N status"] == "partial" and "NO2" in mere["N without data"]
+    assert t.xs("ridge", level="site").iloc[0]["N without data"] == "-"
+    assert "eq/ha/yr" in " ".join(net.totals("eq/ha/yr").columns)
+
+
+def test_sensitivity_table_says_units(session):
+    from workbench.ui.apps import SensitivityExplorer
+    sens = SensitivityExplorer(session, site="ridge", years=(2021, 2021), key="fixed_velocity.SO2")
+    head = sens.table_w.value.split("</thead>")[0]
+    assert "S_total [kg/ha/yr]" in head and "fixed Vd of SO2 [cm/s]" in head
