@@ -133,6 +133,8 @@ def test_network_totals_carry_status_and_unit(two_sites_2021):
     assert mere["N status"] == "partial" and "NO2" in mere["N without data"]
     assert t.xs("ridge", level="site").iloc[0]["N without data"] == "-"
     assert "eq/ha/yr" in " ".join(net.totals("eq/ha/yr").columns)
+    box, = [w for w in net.children if "wb-input-rows" in getattr(w, "_dom_classes", ())]
+    assert "Input rows:" in box.value and " read" in box.value
 
 
 def test_sensitivity_table_says_units(session):
@@ -140,3 +142,30 @@ def test_sensitivity_table_says_units(session):
     sens = SensitivityExplorer(session, site="ridge", years=(2021, 2021), key="fixed_velocity.SO2")
     head = sens.table_w.value.split("</thead>")[0]
     assert "S_total [kg/ha/yr]" in head and "fixed Vd of SO2 [cm/s]" in head
+
+
+def test_a_duplicated_upload_is_told_in_the_explorer(tmp_path):
+    """The air file uploaded twice: the repeats are dropped by the reader, and the
+    explorer says so under its caution (counts, and one reason row for all repeats)
+    instead of a budget that looks as if nothing happened."""
+    from workbench.ui.apps import SiteExplorer
+    sc = write_demo_subset(tmp_path, ("ridge",), 2021, 2021)
+    air = sc.parent / "air.csv"
+    lines = air.read_text().splitlines(keepends=True)
+    body = [ln for ln in lines if ln[:1] not in ("#", "s") and ln.strip()]
+    air.write_text("".join(lines + body))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = SiteExplorer.from_scenario(sc, site="ridge", years=(2021, 2021))
+    box, = [w for w in app.children if "wb-input-rows" in getattr(w, "_dom_classes", ())]
+    assert f"{len(body):,} rejected" in box.value
+    assert box.value.count("exact repeat of line n (dropped)") == 1
+    assert f"<td>{len(body)}</td>" in box.value
+
+
+def test_line_numbers_of_reasons_are_counted_together():
+    from workbench.ui.inputs_box import LINE_NUMBER
+    assert LINE_NUMBER.sub(r"\1 n", "exact repeat of line 1203 (dropped)") == \
+        "exact repeat of line n (dropped)"
+    assert LINE_NUMBER.sub(r"\1 n", "overlaps lines 12-14") == "overlaps lines n"
+    assert LINE_NUMBER.sub(r"\1 n", "PO4 below detection") == "PO4 below detection"

@@ -173,8 +173,9 @@ class SiteExplorer(widgets.VBox):
         head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w],
                             layout=widgets.Layout(flex_flow="row wrap"))
         # the figures go under the assumptions where the window is narrow
+        from .inputs_box import input_rows_box           # what became of the input rows
         return [widgets.HTML("<h3>Site budget explorer</h3>"), wrap_labels_style(), caution_box(),
-                head,
+                input_rows_box(self.session.study.inputs.ledger), head,
                 self.progress, widgets.HBox([left, right],
                                             layout=widgets.Layout(flex_flow="row wrap"))]
 

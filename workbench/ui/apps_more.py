@@ -205,7 +205,9 @@ class NetworkOverview(widgets.VBox):
         # under the other (a plot drawn in a notebook does not know its box's width)
         rankings = widgets.HBox([self.figs["S"], self.figs["N"]],
                                 layout=widgets.Layout(width="100%", flex_flow="row wrap"))
+        from .inputs_box import input_rows_box           # what became of the input rows
         super().__init__([widgets.HTML("<h3>Network overview</h3>"), caution_box(),
+                          input_rows_box(self.session.study.inputs.ledger),
                           widgets.HBox([self.unit_w, self.progress]), self.figs["totals"],
                           rankings, self.apart_w, self.analysis_w],
                          layout=widgets.Layout(width="100%"))
