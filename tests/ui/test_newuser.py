@@ -169,3 +169,23 @@ def test_line_numbers_of_reasons_are_counted_together():
         "exact repeat of line n (dropped)"
     assert LINE_NUMBER.sub(r"\1 n", "overlaps lines 12-14") == "overlaps lines n"
     assert LINE_NUMBER.sub(r"\1 n", "PO4 below detection") == "PO4 below detection"
+
+
+def test_resistance_axes_label_powers_of_ten_only(ridge_app):
+    """A log axis of resistances labelled 100, 2, 5, 1000 read like a scale break; only
+    powers of ten are labelled."""
+    from workbench.ui import figures_dry
+    r = ridge_app.result
+    spec = figures_dry.resistance_breakdown_spec(r.velocities, "ridge", "conifer_forest", "SO2")
+    axes = [v for k, v in spec["layout"].items() if k.startswith("yaxis")]
+    assert axes and all(a.get("type") == "log" and a.get("dtick") == 1 for a in axes)
+
+
+def test_excluded_samples_table_says_time_zone_and_units(session):
+    """The file says 14:00 local standard time, the table 13:00: the header says UTC; the
+    gauge depth carries its unit and the line number says it is the file's."""
+    from workbench.ui.apps import SiteExplorer
+    app = SiteExplorer(session, site="ridge", years=(2020, 2020))
+    head = app.excluded_w.value.split("</thead>")[0]
+    for col in ("start (UTC)", "end (UTC)", "file line", "gauge depth [mm]"):
+        assert f"<th>{col}</th>" in head, (col, head)

@@ -303,7 +303,9 @@ class SiteExplorer(widgets.VBox):
         t = excluded_samples(self.result.screened, self.site, start=start, end=end)
         if not t.empty:
             t = t.assign(start=t["start"].dt.strftime("%Y-%m-%d %H:%M"),
-                         end=t["end"].dt.strftime("%Y-%m-%d %H:%M"))
+                         end=t["end"].dt.strftime("%Y-%m-%d %H:%M")).rename(
+                columns={"start": "start (UTC)", "end": "end (UTC)", "line": "file line",
+                         "gauge_depth": "gauge depth [mm]"})
         return table_html(t, "no sample excluded or flagged")
 
     def redraw(self, all_tabs=False):
