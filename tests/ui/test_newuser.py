@@ -189,3 +189,23 @@ def test_excluded_samples_table_says_time_zone_and_units(session):
     head = app.excluded_w.value.split("</thead>")[0]
     for col in ("start (UTC)", "end (UTC)", "file line", "gauge depth [mm]"):
         assert f"<th>{col}</th>" in head, (col, head)
+
+
+def test_no_excluded_sample_is_said_in_the_plot(session):
+    """Years without a flagged or excluded sample: the figure says so instead of empty
+    axes running from -0.5 to 0.5; a later change back to samples shows the axes again."""
+    from workbench.ui import figures_wet
+    from workbench.ui.apps import SiteExplorer
+    spec = figures_wet.excluded_by_reason_spec(None, "ridge")
+    assert spec["layout"]["title"]["text"].startswith("No sample excluded or flagged")
+    assert spec["layout"]["xaxis"]["visible"] is False and spec["layout"]["annotations"]
+    app = SiteExplorer(session, site="ridge", years=(2020, 2020))   # a poor ion balance
+    from workbench.ui.apps import TABS
+    app.tabs.selected_index = TABS.index("excluded samples")
+    fig = app.figs["excluded samples"]
+    assert fig.layout.title.text.startswith("Samples not used")
+    from workbench.ui.controls import refresh
+    refresh(fig, {**spec, "layout": {**spec["layout"], "width": 660}})
+    assert fig.layout.xaxis.visible is False and len(fig.layout.annotations) == 1
+    refresh(fig, app._figure("excluded samples"))
+    assert fig.layout.xaxis.visible is not False and len(fig.layout.annotations) == 0
