@@ -209,3 +209,26 @@ def test_no_excluded_sample_is_said_in_the_plot(session):
     assert fig.layout.xaxis.visible is False and len(fig.layout.annotations) == 1
     refresh(fig, app._figure("excluded samples"))
     assert fig.layout.xaxis.visible is not False and len(fig.layout.annotations) == 0
+
+
+def test_gas_control_says_it_is_for_the_resistances_tab(ridge_app):
+    app = ridge_app
+    assert "resistances" in app.gas_w.description
+    bars = [list(d.y) for d in app.figs["budget"].data]
+    app.gas_w.value = "NH3"
+    try:
+        assert [list(d.y) for d in app.figs["budget"].data] == bars     # the bars stay
+    finally:
+        app.gas_w.value = "SO2"
+
+
+def test_what_if_sentence_reads_plainly():
+    """"leaves a acidity exceedance (air concentrations only (wet deposition unchanged))"
+    was what a user read; the article and the brackets now read as English."""
+    from workbench.analysis.whatif import plain_statement
+    parts = {"S_wet": 300.0, "S_dry": 300.0, "NOx_wet": 400.0, "NOx_dry": 400.0,
+             "NHx_wet": 400.0, "NHx_dry": 400.0}
+    loads = {"cl_max_s": 100.0, "cl_min_n": 0.0, "cl_max_n": 200.0, "cl_nut_n": 100.0}
+    text = plain_statement(parts, {"S": 0.1}, loads, mode="air_only", where="x")
+    assert "leaves an acidity exceedance" in text and "leaves a nutrient-N exceedance" in text
+    assert "((" not in text and "))" not in text

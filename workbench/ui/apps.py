@@ -90,7 +90,12 @@ class SiteExplorer(widgets.VBox):
                                               description="years", continuous_update=False,
                                               layout=widgets.Layout(width="360px"))
         self.unit_w = widgets.Dropdown(options=list(UNITS), value=unit, description="unit")
-        self.gas_w = widgets.Dropdown(options=GASES, value=GASES[0], description="gas")
+        # it sets the gas of the "resistances" tab only: its text says so (a bare "gas"
+        # under the budget read as if it changed the bars)
+        self.gas_w = widgets.Dropdown(options=GASES, value=GASES[0],
+                                      description="gas of the resistances tab",
+                                      style={"description_width": "initial"})
+        self.gas_w.add_class("wb-gas")
         for w, cls_ in ((self.site_w, "wb-site"), (self.receptor_w, "wb-receptor"),
                         (self.years_w, "wb-years"), (self.unit_w, "wb-unit")):
             w.add_class(cls_)
