@@ -232,3 +232,19 @@ def test_what_if_sentence_reads_plainly():
     text = plain_statement(parts, {"S": 0.1}, loads, mode="air_only", where="x")
     assert "leaves an acidity exceedance" in text and "leaves a nutrient-N exceedance" in text
     assert "((" not in text and "))" not in text
+
+
+def test_long_assumption_names_wrap_in_the_sensitivity_figure(session):
+    """The gas/particle split's name ran past the figure's edge in the title and the
+    two panels' axis titles ran into each other: both wrap at a space."""
+    from workbench.ui.apps import SensitivityExplorer
+    from workbench.ui.figures import AXIS_CHARS, TITLE_CHARS
+    sens = SensitivityExplorer(session, site="ridge", years=(2021, 2021), key="budget.pair_split")
+    lay = sens.fig.layout
+    title = lay.title.text
+    assert "<br>" in title and all(len(p) <= TITLE_CHARS for p in title.split("<br>"))
+    assert "gas/particle split of the nitrate and ammonium pairs" in title.replace("<br>", " ")
+    assert lay.margin.t >= 100 + 50 * (title.count("<br>") - 1)      # room above "sulfur"
+    for ax in (lay.xaxis, lay.xaxis2):
+        parts = ax.title.text.split("<br>")
+        assert len(parts) > 1 and all(len(p) <= AXIS_CHARS for p in parts)

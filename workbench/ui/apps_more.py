@@ -144,7 +144,11 @@ class SensitivityExplorer(widgets.VBox):
         fig = figures.sensitivity_curves(shown, a.label, base_shown, unit)
         span = f"{years[0]}" if years[0] == years[1] else f"{years[0]}-{years[1]}"
         self.shown = f"{a.label} · {site} · {rec} · {span}"
-        fig.update_layout(title=f"Sensitivity of the totals to {self.shown}")
+        title = f"Sensitivity of the totals to {self.shown}"
+        if len(title) > figures.TITLE_CHARS:     # the where and when on a line of their own
+            title = (figures.wrap_text(f"Sensitivity of the totals to {a.label}",
+                                       figures.TITLE_CHARS) + f"<br>{site} · {rec} · {span}")
+        fig.update_layout(title=title, margin=dict(t=figures.title_room(title)))
         if base is None:
             b = self.session.sweep(a.key, [None], self.settings, site, *years, rec, unit)
             for col, el in enumerate(("S", "N"), start=1):
