@@ -248,3 +248,18 @@ def test_long_assumption_names_wrap_in_the_sensitivity_figure(session):
     for ax in (lay.xaxis, lay.xaxis2):
         parts = ax.title.text.split("<br>")
         assert len(parts) > 1 and all(len(p) <= AXIS_CHARS for p in parts)
+
+
+def test_years_readout_has_room_in_every_app(session):
+    """"2023 – 2023" lost its last digit in the sensitivity explorer's squeezed row."""
+    from workbench.ui.apps import SensitivityExplorer
+    from workbench.ui.app_sobol import SobolExplorer
+    from workbench.ui.controls import WRAP_LABELS_CSS
+    assert ".wb-years .widget-readout {min-width: 7.5em" in WRAP_LABELS_CSS
+    sens = SensitivityExplorer(session, site="ridge", years=(2021, 2021), run=False)
+    sob = SobolExplorer(session, site="ridge", years=(2021, 2021))
+    for app in (sens, sob):
+        assert "wb-years" in app.years_w._dom_classes
+        assert any(getattr(w, "value", None) == WRAP_LABELS_CSS for w in app.children)
+        head = next(w for w in app.children if app.years_w in getattr(w, "children", ()))
+        assert head.layout.flex_flow == "row wrap"

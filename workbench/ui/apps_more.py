@@ -9,7 +9,8 @@ import pandas as pd
 
 from . import figures
 from .assumptions import ASSUMPTIONS, Settings
-from .controls import Progress, caution_box, figure_widget, open_with_progress, refresh, table_html
+from .controls import (Progress, caution_box, figure_widget, open_with_progress, refresh,
+                       table_html, wrap_labels_style)
 from .session import Session
 from .summaries import UNITS, network_ranking, network_table
 
@@ -87,8 +88,11 @@ class SensitivityExplorer(widgets.VBox):
         for w in (self.site_w, self.receptor_w, self.years_w, self.key_w, self.range_w,
                   self.steps_w):
             w.observe(self._stale, "value")
-        head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w])
-        super().__init__([widgets.HTML("<h3>Sensitivity explorer</h3>"), caution_box(), head,
+        self.years_w.add_class("wb-years")
+        head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w],
+                            layout=widgets.Layout(flex_flow="row wrap"))   # none squeezed
+        super().__init__([widgets.HTML("<h3>Sensitivity explorer</h3>"), wrap_labels_style(),
+                          caution_box(), head,
                           self.key_w, widgets.HBox([self.range_w, self.steps_w]),
                           widgets.HBox([self.run_w, self.progress]), self.note_w, self.fig,
                           self.table_w])

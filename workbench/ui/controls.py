@@ -23,11 +23,13 @@ CONTROL_WIDTH = "420px"
 TABLE_HEIGHT = "320px"
 #: CSS that lets a control's description wrap onto a second line instead of being cut
 #: with an ellipsis ("precipitation with valid chemistr..."): the description column is
-#: 230 px and some labels are longer; the row grows with its label.
+#: 230 px and some labels are longer; the row grows with its label.  The readout of a
+#: years slider gets room for "2023 – 2023" (its last digit was cut in a full row).
 WRAP_LABELS_CSS = ("<style>.wb-wrap-labels .widget-label {white-space: normal !important; "
                    "line-height: 1.15; height: auto !important;} "
                    ".wb-wrap-labels .widget-inline-hbox {height: auto !important; "
-                   "min-height: var(--jp-widgets-inline-height); align-items: center;}</style>")
+                   "min-height: var(--jp-widgets-inline-height); align-items: center;} "
+                   ".wb-years .widget-readout {min-width: 7.5em; overflow: visible;}</style>")
 #: Layout keys that never change between two figures of one kind (not resent).
 STATIC_LAYOUT = ("template",)
 
