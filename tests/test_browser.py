@@ -247,6 +247,11 @@ def test_site_budget_in_a_real_browser(lab, token, page, tmp_path):
             control.wait_for(state="visible")
             box = control.bounding_box()
             assert box and box["width"] > 50 and box["height"] > 10, k
+        # every label whole: a long one wraps, none ends in an ellipsis
+        cut = page.evaluate("() => [...document.querySelectorAll('.wb-assumptions .widget-label')]"
+                            ".filter(l => l.offsetParent && l.scrollWidth > l.clientWidth + 1)"
+                            ".map(l => l.innerText)")
+        assert cut == [], (group, cut)
     _no_javascript_errors(page)
     # nothing cut: every button shows its whole text, the app stays inside its area
     cut = page.evaluate("() => [...document.querySelectorAll('.jp-OutputArea .widget-button')]"
@@ -259,6 +264,8 @@ def test_site_budget_in_a_real_browser(lab, token, page, tmp_path):
         ".filter(e => e.offsetParent && e.getBoundingClientRect().right > r + 1)"
         ".map(e => e.tagName + '.' + [...e.classList].join('.'))}; }")
     assert edges["app"] <= edges["window"] and edges["out"] == [], edges
+    # the dry-N bracket is shown beside the bars
+    assert "gas/particle bracket" in page.locator(".wb-bracket").inner_text()
     before = page.evaluate(BUDGET)
     wet_so4 = _trace(before, "wet SO4")["y"][0]
     assert wet_so4 > 0

@@ -197,6 +197,10 @@ def cmd_demo(args) -> int:
         print("whole-span totals (mean of the years that pass completeness):")
         print(span[["site", "receptor", "element", "flux_kg_ha_yr", "flux_eq_ha_yr", "status",
                     "years_used"]].to_string(index=False, float_format=lambda v: f"{v:.3g}"))
+        print("status: complete (every component, passes completeness); filled (gaps "
+              "filled); partial (a component has no data: budget.csv's missing_components "
+              "per year); flagged (fails completeness, or holds something to read with care: "
+              "report.html says which)")
     print()
     print(f"report: {written['report.html']}")
     return 0

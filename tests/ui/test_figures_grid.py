@@ -34,7 +34,7 @@ def test_map_of_total_n(out):
     assert t["z"][0] == [6.0, 7.0, 8.0] and t["z"][1][0] is None      # NaN: blank cell
     assert t["x"] == [0.0, 1.0, 2.0] and t["y"] == [0.0, 1.0]          # km
     assert [c[2] for c in t["customdata"][0]] == ["grass", "water", "no class"]
-    assert t["colorbar"]["title"]["text"] == "kg/ha"
+    assert t["colorbar"]["title"]["text"] == "kg N/ha"      # the element in the unit
     assert "2021-08" in spec["layout"]["title"]["text"]
     assert spec["layout"]["yaxis"]["scaleanchor"] == "x"               # square cells
     fig = grid_map(out, "dry_N", 0)

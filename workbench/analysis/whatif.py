@@ -25,7 +25,7 @@ from ..units import element_deposition_in
 from .exceedance import acidity_exceedance, nutrient_n_exceedance
 
 MODES = {"air_and_wet": "air concentrations and wet deposition cut together",
-         "air_only": "air concentrations only (wet deposition unchanged)"}
+         "air_only": "air concentrations only, wet deposition unchanged"}
 #: The groups of components that can be cut.
 GROUPS = ("S", "NOx", "NHx")
 GROUP_TEXT = {"S": "sulfur", "NOx": "oxidized N", "NHx": "reduced N"}
@@ -212,8 +212,9 @@ def plain_statement(parts, cuts, loads, mode="air_and_wet", where="") -> str:
         elif t == 0:
             out.append(f"There is no {name} exceedance.")
         elif np.isinf(t) or t > 1:
-            out.append(f"Even cutting {_cuts_text(cuts, 1.0)} ({label}) leaves a {name} "
-                       "exceedance.")
+            article = "an" if name[0] in "aeiou" else "a"       # an acidity exceedance
+            out.append(f"Even cutting {_cuts_text(cuts, 1.0)} ({label}) leaves {article} "
+                       f"{name} exceedance.")
         else:
             out.append(f"cutting {_cuts_text(cuts, t)} ({label}) ends the {name} exceedance.")
     text = " ".join(out)

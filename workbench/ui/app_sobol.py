@@ -76,8 +76,12 @@ class SobolExplorer(widgets.VBox):
         self.run_w.on_click(lambda _: self.run())
         for w in (self.output_w, self.year_w):
             w.observe(lambda c: self._draw(), "value")
-        head = widgets.HBox([self.site_w, self.receptor_w, self.years_w])
-        super().__init__([widgets.HTML("<h3>Sobol indices and tornado</h3>"), caution_box(),
+        self.years_w.add_class("wb-years")
+        head = widgets.HBox([self.site_w, self.receptor_w, self.years_w],
+                            layout=widgets.Layout(flex_flow="row wrap"))
+        from .controls import wrap_labels_style
+        super().__init__([widgets.HTML("<h3>Sobol indices and tornado</h3>"), wrap_labels_style(),
+                          caution_box(),
                           head, widgets.HBox([self.output_w, self.year_w, self.samples_w]),
                           widgets.HBox([self.run_w, self.progress]), self.note_w, self.bar_w,
                           self.fig])

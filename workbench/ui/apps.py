@@ -17,7 +17,7 @@ import ipywidgets as widgets
 from . import figures, figures_dry, figures_wet
 from .assumptions import ASSUMPTIONS, Settings
 from .controls import (Progress, caution_box, figure_widget, make_control, open_with_progress,
-                       refresh, set_quietly, table_html)
+                       refresh, set_quietly, table_html, wrap_labels_style)
 from .scheme_tab import SchemeTab
 from .session import Session, output_dir
 from .palette import TEMPLATE
@@ -90,7 +90,12 @@ class SiteExplorer(widgets.VBox):
                                               description="years", continuous_update=False,
                                               layout=widgets.Layout(width="360px"))
         self.unit_w = widgets.Dropdown(options=list(UNITS), value=unit, description="unit")
-        self.gas_w = widgets.Dropdown(options=GASES, value=GASES[0], description="gas")
+        # it sets the gas of the "resistances" tab only: its text says so (a bare "gas"
+        # under the budget read as if it changed the bars)
+        self.gas_w = widgets.Dropdown(options=GASES, value=GASES[0],
+                                      description="gas of the resistances tab",
+                                      style={"description_width": "initial"})
+        self.gas_w.add_class("wb-gas")
         for w, cls_ in ((self.site_w, "wb-site"), (self.receptor_w, "wb-receptor"),
                         (self.years_w, "wb-years"), (self.unit_w, "wb-unit")):
             w.add_class(cls_)
@@ -99,6 +104,8 @@ class SiteExplorer(widgets.VBox):
         self.change_w = widgets.HTML("", layout=widgets.Layout(min_height="1.6em"))
         self.change_w.add_class("wb-change")
         self.nh3_w = widgets.HTML("")          # the NH3 figure used: net or deposition only
+        self.bracket_w = widgets.HTML("")      # dry N against its gas/particle bracket
+        self.bracket_w.add_class("wb-bracket")
         self.message_w = widgets.HTML("")
         self.excluded_w = widgets.HTML("")
         self.latency_s = float("nan")
@@ -116,6 +123,7 @@ class SiteExplorer(widgets.VBox):
         self._totals = self._current_totals()
         self.change_w.value = html.escape(change_line(None, self._totals, self.unit_w.value))
         self.nh3_w.value = self._nh3_html()
+        self.bracket_w.value = self._bracket_html()
         self.excluded_w.value = self._excluded_html()
         pages = {n: self.figs.get(n) for n in TABS}
         pages["excluded samples"] = widgets.VBox([self.figs["excluded samples"], self.excluded_w])
@@ -138,6 +146,7 @@ class SiteExplorer(widgets.VBox):
             groups.setdefault(a.group, []).append(self.controls[k])
         acc = widgets.Accordion([widgets.VBox(v) for v in groups.values()])
         acc.add_class("wb-assumptions")
+        acc.add_class("wb-wrap-labels")          # long labels wrap, never cut
         for i, g in enumerate(groups):
             acc.set_title(i, g)
         out = output_dir()
@@ -161,14 +170,17 @@ class SiteExplorer(widgets.VBox):
                                 self.reset_w, self.message_w])
         left = widgets.VBox([widgets.HTML("<b>Assumptions</b>"), acc, buttons],
                             layout=widgets.Layout(width="460px"))
-        right = widgets.VBox([self.change_w, self.nh3_w, self.figs["budget"], self.gas_w,
+        right = widgets.VBox([self.change_w, self.nh3_w, self.bracket_w, self.figs["budget"],
+                              self.gas_w,
                               self.tabs],
                              layout=widgets.Layout(flex="1 1 auto",
                                                    min_width=f"{FIGURE_WIDTH + 30}px"))
         head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w],
                             layout=widgets.Layout(flex_flow="row wrap"))
         # the figures go under the assumptions where the window is narrow
-        return [widgets.HTML("<h3>Site budget explorer</h3>"), caution_box(), head,
+        from .inputs_box import input_rows_box           # what became of the input rows
+        return [widgets.HTML("<h3>Site budget explorer</h3>"), wrap_labels_style(), caution_box(),
+                input_rows_box(self.session.study.inputs.ledger), head,
                 self.progress, widgets.HBox([left, right],
                                             layout=widgets.Layout(flex_flow="row wrap"))]
 
@@ -285,12 +297,20 @@ class SiteExplorer(widgets.VBox):
         return html.escape(nh3_line(self.result.years, self.site, self.receptor_w.value,
                                     self.unit_w.value))
 
+    def _bracket_html(self):
+        from .bracket import bracket_line
+        return html.escape(bracket_line(self.result.years, self.result.derived, self.site,
+                                        self.receptor_w.value, self.unit_w.value,
+                                        self.settings.budget.pair_split))
+
     def _excluded_html(self):
         start, end = self.session.bounds(*self.years)
         t = excluded_samples(self.result.screened, self.site, start=start, end=end)
         if not t.empty:
             t = t.assign(start=t["start"].dt.strftime("%Y-%m-%d %H:%M"),
-                         end=t["end"].dt.strftime("%Y-%m-%d %H:%M"))
+                         end=t["end"].dt.strftime("%Y-%m-%d %H:%M")).rename(
+                columns={"start": "start (UTC)", "end": "end (UTC)", "line": "file line",
+                         "gauge_depth": "gauge depth [mm]"})
         return table_html(t, "no sample excluded or flagged")
 
     def redraw(self, all_tabs=False):
@@ -300,6 +320,7 @@ class SiteExplorer(widgets.VBox):
         self.change_w.value = html.escape(change_line(self._before, after, self.unit_w.value))
         self._totals = after
         self.nh3_w.value = self._nh3_html()
+        self.bracket_w.value = self._bracket_html()
         names = ([n for n in TABS if n not in LAZY_TABS] if all_tabs  # those: when opened
                  else [TABS[self.tabs.selected_index or 0]])
         for name in names:

@@ -9,7 +9,8 @@ import pandas as pd
 
 from . import figures
 from .assumptions import ASSUMPTIONS, Settings
-from .controls import Progress, caution_box, figure_widget, open_with_progress, refresh, table_html
+from .controls import (Progress, caution_box, figure_widget, open_with_progress, refresh,
+                       table_html, wrap_labels_style)
 from .session import Session
 from .summaries import UNITS, network_ranking, network_table
 
@@ -87,8 +88,11 @@ class SensitivityExplorer(widgets.VBox):
         for w in (self.site_w, self.receptor_w, self.years_w, self.key_w, self.range_w,
                   self.steps_w):
             w.observe(self._stale, "value")
-        head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w])
-        super().__init__([widgets.HTML("<h3>Sensitivity explorer</h3>"), caution_box(), head,
+        self.years_w.add_class("wb-years")
+        head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w],
+                            layout=widgets.Layout(flex_flow="row wrap"))   # none squeezed
+        super().__init__([widgets.HTML("<h3>Sensitivity explorer</h3>"), wrap_labels_style(),
+                          caution_box(), head,
                           self.key_w, widgets.HBox([self.range_w, self.steps_w]),
                           widgets.HBox([self.run_w, self.progress]), self.note_w, self.fig,
                           self.table_w])
@@ -144,7 +148,11 @@ class SensitivityExplorer(widgets.VBox):
         fig = figures.sensitivity_curves(shown, a.label, base_shown, unit)
         span = f"{years[0]}" if years[0] == years[1] else f"{years[0]}-{years[1]}"
         self.shown = f"{a.label} · {site} · {rec} · {span}"
-        fig.update_layout(title=f"Sensitivity of the totals to {self.shown}")
+        title = f"Sensitivity of the totals to {self.shown}"
+        if len(title) > figures.TITLE_CHARS:     # the where and when on a line of their own
+            title = (figures.wrap_text(f"Sensitivity of the totals to {a.label}",
+                                       figures.TITLE_CHARS) + f"<br>{site} · {rec} · {span}")
+        fig.update_layout(title=title, margin=dict(t=figures.title_room(title)))
         if base is None:
             b = self.session.sweep(a.key, [None], self.settings, site, *years, rec, unit)
             for col, el in enumerate(("S", "N"), start=1):
@@ -157,7 +165,10 @@ class SensitivityExplorer(widgets.VBox):
             self.note_w.value = f"Baseline: {html.escape(str(base_shown))} (star)."
         refresh(self.fig, fig)
         show = shown.pivot_table(index="value", columns="total", values="rate", sort=False)
-        self.table_w.value = table_html(show.reset_index())
+        show.columns = [f"{c} [{unit}]" for c in show.columns]     # every number its unit
+        show.columns.name = None
+        self.table_w.value = table_html(show.reset_index().rename(
+            columns={"value": a.label if "[" in a.label else f"{a.label} (setting)"}))
         self.progress.done("sweep done")
         return self.table
 
@@ -202,7 +213,9 @@ class NetworkOverview(widgets.VBox):
         # under the other (a plot drawn in a notebook does not know its box's width)
         rankings = widgets.HBox([self.figs["S"], self.figs["N"]],
                                 layout=widgets.Layout(width="100%", flex_flow="row wrap"))
+        from .inputs_box import input_rows_box           # what became of the input rows
         super().__init__([widgets.HTML("<h3>Network overview</h3>"), caution_box(),
+                          input_rows_box(self.session.study.inputs.ledger),
                           widgets.HBox([self.unit_w, self.progress]), self.figs["totals"],
                           rankings, self.apart_w, self.analysis_w],
                          layout=widgets.Layout(width="100%"))
@@ -217,6 +230,25 @@ class NetworkOverview(widgets.VBox):
         cat = self.session.study.inputs.catalogue
         return pd.concat([network_table(r.years, cat, unit) for r in self.results.values()],
                          ignore_index=True)
+
+    def totals(self, unit=None) -> pd.DataFrame:
+        """The annual totals as a table to read: one row per site and year, for S and N
+        the value [unit, named in the column] beside its status and the components
+        without data, so that a partial or flagged total never reads as a complete one.
+        """
+        unit = unit or self.unit_w.value
+        t = self.table(unit)
+        wide = t.pivot_table(index=["site", "receptor", "period"], columns="element",
+                             values=["value", "status", "missing"], aggfunc="first",
+                             sort=False)
+        cols = {}
+        for el in ("S", "N"):
+            if ("value", el) in wide:
+                cols[f"{el} total [{unit}]"] = wide[("value", el)]
+                cols[f"{el} status"] = wide[("status", el)]
+                cols[f"{el} without data"] = wide[("missing", el)].replace(
+                    {"": "-", "nan": "-"}).fillna("-")
+        return pd.DataFrame(cols)
 
     def _draw(self, create=False):
         unit = self.unit_w.value

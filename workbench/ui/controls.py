@@ -21,6 +21,15 @@ DESCRIPTION_WIDTH = "230px"
 CONTROL_WIDTH = "420px"
 #: Largest height of a table before it scrolls [CSS].
 TABLE_HEIGHT = "320px"
+#: CSS that lets a control's description wrap onto a second line instead of being cut
+#: with an ellipsis ("precipitation with valid chemistr..."): the description column is
+#: 230 px and some labels are longer; the row grows with its label.  The readout of a
+#: years slider gets room for "2023 – 2023" (its last digit was cut in a full row).
+WRAP_LABELS_CSS = ("<style>.wb-wrap-labels .widget-label {white-space: normal !important; "
+                   "line-height: 1.15; height: auto !important;} "
+                   ".wb-wrap-labels .widget-inline-hbox {height: auto !important; "
+                   "min-height: var(--jp-widgets-inline-height); align-items: center;} "
+                   ".wb-years .widget-readout {min-width: 7.5em; overflow: visible;}</style>")
 #: Layout keys that never change between two figures of one kind (not resent).
 STATIC_LAYOUT = ("template",)
 
@@ -100,6 +109,14 @@ def make_control(a: Assumption, value):
     # reads the description, which a Box has not (a TypeError: the view never renders)
     for part in (w.children if isinstance(w, widgets.Box) else [w]):
         part.tooltip = a.key
+    return w
+
+
+def wrap_labels_style() -> widgets.HTML:
+    """An invisible widget carrying :data:`WRAP_LABELS_CSS`: place it in an app and add
+    the class ``wb-wrap-labels`` to the box whose control descriptions may wrap."""
+    w = widgets.HTML(WRAP_LABELS_CSS, layout=widgets.Layout(height="0px", margin="0px"))
+    w.add_class("wb-style")
     return w
 
 

@@ -252,6 +252,26 @@ def baseline_line() -> dict:
     return {"color": OKABE_ITO["grey"], "dash": "dot", "width": BASELINE_WIDTH}
 
 
+#: Most characters on one line of a panel's axis title and of a figure's title (a
+#: 660 px figure of two panels): longer text wraps at a space (it ran into the other
+#: panel's title, or past the figure's edge).
+AXIS_CHARS, TITLE_CHARS = 30, 70
+
+
+def wrap_text(text: str, width: int) -> str:
+    """`text` broken at spaces into lines of at most `width` characters (plotly's
+    ``<br>``), e.g. a long assumption name under a narrow panel."""
+    import textwrap
+    return "<br>".join(textwrap.wrap(str(text), width)) if len(str(text)) > width else str(text)
+
+
+def title_room(title: str) -> int:
+    """Top margin [px] for a title of one or more ``<br>`` lines above subplot titles
+    (plotly centres the title in the margin: its default 100 px holds two lines, and a
+    third ran into "sulfur")."""
+    return 100 + 50 * max(0, str(title).count("<br>") - 1)
+
+
 def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr", template=TEMPLATE):
     """Response of each total to one assumption, the baseline marked.
 
@@ -293,11 +313,12 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
             showlegend=col == 1, marker=dict(symbol="star", size=14, color=OKABE_ITO["black"]),
             hovertemplate="baseline %{x}: %{y:.3g}<extra></extra>"), row=1, col=col)
         fig.update_yaxes(title_text=axis_text(unit, element=el), row=1, col=col, rangemode="tozero")
-        fig.update_xaxes(title_text=label, row=1, col=col)
+        fig.update_xaxes(title_text=wrap_text(label, AXIS_CHARS), row=1, col=col)
     if not cat and baseline is not None:
         fig.add_vline(x=baseline, line=baseline_line())
-    fig.update_layout(title=f"Sensitivity of the totals to {label}", template=template,
-                      height=HEIGHT)
+    title = wrap_text(f"Sensitivity of the totals to {label}", TITLE_CHARS)
+    fig.update_layout(title=title, template=template, height=HEIGHT,
+                      margin=dict(t=title_room(title)))
     return fig
 
 

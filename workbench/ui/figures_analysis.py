@@ -73,7 +73,7 @@ def clf_spec(loads: dict, s_dep=None, n_dep=None, path=None, title="", mode_text
     if np.isfinite(cn):
         data.append({"type": "scatter", "x": [cn, cn], "y": [0, ymax], "mode": "lines",
                      "line": {"color": OKABE_ITO["bluish_green"], "dash": "dash"},
-                     "name": f"nutrient-N critical load ({cn:.0f})",
+                     "name": f"nutrient-N critical load ({cn:.0f} eq/ha/yr)",
                      "hovertemplate": "CLnutN %{x:.0f} eq/ha/yr<extra></extra>"})
     if path is not None and len(path):
         ex = np.asarray(path["ex_acidity_eq_ha_yr"], float)

@@ -153,7 +153,7 @@ def resistance_breakdown_spec(vel, site, receptor, gas="SO2", utc_offset_h=0.0) 
                 "hovertemplate": f"{label} {season} %{{x}} h: median %{{y:.3g}} s m-1<extra></extra>"}
         traces.extend(enumerate(_season_traces(value, n, make)))
     return _panels(traces, utc_offset_h,
-                   {"all": {"type": "log"},
+                   {"all": {"type": "log", "dtick": 1},     # 1, 10, 100: no stray "2", "5"
                     "first": {"title": {"text": "median resistance [s m-1]"}}},
                    f"Resistances of {gas} (medians by hour) · {site} · {receptor}", "resistance")
 

@@ -60,6 +60,8 @@ def grid_map_spec(ds, variable: str = "dry_N", period: int | str = 0) -> dict:
     k = labels.index(period) if isinstance(period, str) else int(period)
     kind = variable.split("_")[0]
     factor, unit = DISPLAY.get(kind, (1.0, ds[variable].attrs.get("units", "")))
+    if kind == "dry" and variable[4:] in ("N", "S"):     # say the element: kg N/ha
+        unit = f"kg {variable[4:]}/ha"
     z = ds[variable].values[k] * factor
     y, x, ytitle, xtitle = _axes(ds)
     shape = z.shape

@@ -208,6 +208,13 @@ def excluded_by_reason_spec(screened, site=None, start=None, end=None) -> dict:
               "height": max(legend_height(legend_lines(data), HEIGHT // 2),
                             60 + 28 * len(reasons)),
               "margin": {"l": 260}}
+    if not reasons:                  # say so in the plot, not an empty pair of axes
+        layout["title"]["text"] = "No sample excluded or flagged" + (f" · {site}" if site else "")
+        layout["xaxis"] = {**xaxis, "visible": False}
+        layout["yaxis"] = {**layout["yaxis"], "visible": False}
+        layout["annotations"] = [{"text": "every sample of these years is used as it is",
+                                  "xref": "paper", "yref": "paper", "x": 0.5, "y": 0.5,
+                                  "showarrow": False}]
     return {"data": data, "layout": layout}
 
 

@@ -25,8 +25,12 @@ NOT_YET = "opens with the tab (computes the other gas scheme)"
 #: What the tab is about, above its figures.
 CAPTION = ("Two published gas schemes, both defensible, give different deposition "
            "velocities for the same surface and hour; the spread below is a structural "
-           "uncertainty of dry deposition that no option within one scheme shows. "
-           "A is the scheme chosen (<code>[dry] gas_scheme</code>), B the other one.")
+           "uncertainty of dry deposition that no option within one scheme shows.")
+#: Which scheme the budget uses (filled when the tab is drawn): the figures name the
+#: schemes, so the caption names them too (a bare "A" and "B" matched nothing on screen).
+CHOSEN = ("The budget uses <b>{chosen}</b> (the scenario's <code>[dry] gas_scheme</code>); "
+          "<b>{other}</b> is computed beside it, and the differences are {other} minus "
+          "{chosen}.")
 
 
 class SchemeTab:
@@ -61,9 +65,12 @@ class SchemeTab:
                      "budget": figure_widget(figures.from_spec(empty, TEMPLATE))}
         self.sentence_w = widgets.HTML("")
         self.sentence_w.add_class("wb-scheme-spread")
+        self.chosen_w = widgets.HTML("")
+        self.chosen_w.add_class("wb-scheme-chosen")
         self.table_w = widgets.HTML("")
         self.page = widgets.VBox([widgets.HTML(f"<p style='max-width:{width}px'>{CAPTION}</p>"),
-                                  self.sentence_w, self.figs["vd"], self.figs["budget"],
+                                  self.chosen_w, self.sentence_w, self.figs["vd"],
+                                  self.figs["budget"],
                                   self.table_w])
         self.table = None
         self.runs = {}
@@ -84,6 +91,10 @@ class SchemeTab:
             return
         site, rec, unit = a.site, a.receptor_w.value, a.unit_w.value
         self.runs = a.session.run_schemes(a.settings, site, *a.years, rec, chosen=a.result)
+        chosen, *others = list(self.runs)          # the chosen scheme first
+        self.chosen_w.value = (f"<p style='max-width:{self.width}px'>"
+                               + CHOSEN.format(chosen=html.escape(chosen),
+                                               other=html.escape(", ".join(others))) + "</p>")
         vel = {s: r.velocities for s, r in self.runs.items()}
         if any(v is None for v in vel.values()):
             vd_spec = {"data": [], "layout": {"title": {

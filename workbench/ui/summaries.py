@@ -175,7 +175,9 @@ def nh3_line(ds: xr.Dataset, site, receptor, unit="kg/ha/yr") -> str:
         return (f"Dry NH3 {_fmt(mo)} {unit} N: deposition only (emission not modelled; "
                 "'NH3 exchange' under 'ammonia' gives the net).")
     mn = float(np.nanmean(net))
-    share = f"{100.0 * (mo - mn) / mo:.0f} %" if mo > 0 else "n/a"
+    pct = 100.0 * (mo - mn) / mo if mo > 0 else float("nan")
+    # one decimal under 1 %: a changed bar must not read "offsets 0 %"
+    share = "n/a" if not np.isfinite(pct) else f"{pct:.1f} %" if abs(pct) < 1 else f"{pct:.0f} %"
     return (f"Dry NH3 {_fmt(mn)} {unit} N net (deposition - emission) against {_fmt(mo)} "
             f"deposition only: emission offsets {share}; the bars and the N totals use the net.")
 

@@ -1,0 +1,97 @@
+"""The dry-N bracket of the site explorer: one sentence beside the budget bars.
+
+Filters split ammonium nitrate between HNO3 and pNO3 and between NH3 and pNH4, and the
+gas deposits many times faster than the particle, so the dry N of a site is uncertain
+by where the pairs really were.  The budget computes dry N with each pair all as gas and
+all as particle (``Result.derived``: ``dry_N_all_gas_kg_ha``, ``dry_N_all_particle_kg_ha``,
+kg N/ha per period); this module states that range in the unit on screen, beside the
+dry N of the bars, so that the range is seen without moving the "gas/particle pairs"
+control.
+"""
+from __future__ import annotations
+
+import numpy as np
+import xarray as xr
+
+from .summaries import _fmt, to_unit, total_rates
+
+#: The variables of ``Result.derived`` that hold the bracket [kg N/ha per period].
+BRACKET_VARS = ("dry_N_all_particle_kg_ha", "dry_N_all_gas_kg_ha")
+
+
+def _kg_ha_to_mol_m2(values):
+    """Deposition of N [kg N/ha] as an amount [mol N m-2] (the inverse of
+    :func:`workbench.units.element_deposition_in` for ``kg_ha``)."""
+    per_mol = float(to_unit(np.array([1.0]), "N", "kg/ha/yr")[0])   # kg N/ha per mol m-2
+    return np.asarray(values, dtype=float) / per_mol
+
+
+def dry_n_bracket(years: xr.Dataset, derived: xr.Dataset | None, site, receptor,
+                  unit="kg/ha/yr") -> dict | None:
+    """Mean yearly dry N of the bars and of the bracket, over the periods of `years`.
+
+    Parameters
+    ----------
+    years : xarray.Dataset
+        ``Result.years`` (yearly budget).
+    derived : xarray.Dataset or None
+        ``Result.derived`` with :data:`BRACKET_VARS` [kg N/ha per period]; derived
+        again from `years` when its periods are others (a monthly run).
+    site, receptor : str
+    unit : str
+        A key of :data:`workbench.ui.summaries.UNITS`.
+
+    Returns
+    -------
+    dict or None
+        ``shown``, ``all_particle``, ``all_gas`` [unit, mean yearly rate; NaN where not
+        computed] and ``computed`` (bool: the bracket has a value in every period);
+        None when the run carries no bracket.
+    """
+    if derived is not None and not set(years["period"].values.astype(str)) <= set(
+            derived["period"].values.astype(str)):
+        from ..budget import derived as derive     # a monthly run: the bracket of the years
+        derived = derive(years)
+    if derived is None or any(v not in derived.variables for v in BRACKET_VARS):
+        return None
+    t = total_rates(years, site, receptor, None, unit)
+    dry = t[t["total"] == "N_dry"]
+    out = {"shown": float(np.nanmean(dry["value"])) if np.isfinite(dry["value"]).any()
+           else float("nan")}
+    periods = [str(p) for p in dry["period"]]
+    computed = True
+    for name, var in zip(("all_particle", "all_gas"), BRACKET_VARS):
+        da = derived[var].sel(site=site, receptor=receptor)
+        da = da.assign_coords(period=da["period"].astype(str)).sel(period=periods)
+        fac = years["annual_factor"].assign_coords(
+            period=years["period"].astype(str)).sel(period=periods).values
+        rate = to_unit(_kg_ha_to_mol_m2(da.values), "N", unit) * fac
+        computed &= bool(np.isfinite(rate).all())
+        out[name] = float(np.nanmean(rate)) if np.isfinite(rate).any() else float("nan")
+    out["computed"] = computed
+    return out
+
+
+def bracket_line(years: xr.Dataset, derived, site, receptor, unit="kg/ha/yr",
+                 split="measured") -> str:
+    """One sentence: the dry N of the bars and the range of the gas/particle bracket.
+
+    `split` is the "gas/particle pairs" setting (``measured``, ``all_gas``,
+    ``all_particle``): the sentence says which end the bars show.  Empty text when the
+    run has no bracket.
+    """
+    b = dry_n_bracket(years, derived, site, receptor, unit)
+    if b is None:
+        return ""
+    shown = {"measured": "as measured", "all_gas": "pairs all as gas",
+             "all_particle": "pairs all as particle"}.get(split, split)
+    head = f"Dry N {_fmt(b['shown'])} {unit} ({shown})"
+    if not np.isfinite(b["all_gas"]) or not np.isfinite(b["all_particle"]):
+        return (f"{head}; gas/particle bracket not computed for these years (the gas and "
+                "the particle of a pair are not in one sample: the notes in budget.csv "
+                "say which); the dry N shown stands.")
+    part = "" if b["computed"] else " (over the years where it could be computed)"
+    return (f"{head}; gas/particle bracket {_fmt(b['all_particle'])} (each HNO3/pNO3 and "
+            f"NH3/pNH4 pair all as particle) to {_fmt(b['all_gas'])} (all as gas){part}: "
+            "filters split ammonium nitrate between the phases, and the gas deposits "
+            "faster.")
