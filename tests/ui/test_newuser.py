@@ -81,14 +81,20 @@ def test_dry_n_bracket_line_beside_the_bars(ridge_app):
         app.unit_w.value = "kg/ha/yr"
 
 
-def test_dry_n_bracket_not_computed_says_so(farm_session):
-    """The demo farm's NH3 and pNH4 come from different samplers: no bracket, and the
-    line says so instead of showing a number."""
-    from workbench.ui.bracket import bracket_line, dry_n_bracket
+def test_dry_n_bracket_across_samplers_and_not_computed_says_so(farm_session):
+    """The demo farm's NH3 (monthly passive) and pNH4 (weekly filters) come from
+    different samplers: the bracket is combined across them (drypairs), so the line gives
+    both ends; where a bracket has no value the line says so instead of a number."""
+    from workbench.ui.bracket import BRACKET_VARS, bracket_line, dry_n_bracket
     r = farm_session.run(farm_session.baseline, "farm", 2021, 2021, "year", "crops")
     b = dry_n_bracket(r.years, r.derived, "farm", "crops")
-    assert np.isfinite(b["shown"]) and not b["computed"]
+    assert b["computed"] and b["all_particle"] < b["shown"] < b["all_gas"]
     text = bracket_line(r.years, r.derived, "farm", "crops")
+    assert "not computed" not in text and "pair all as particle" in text
+    gone = r.derived.copy()
+    for v in BRACKET_VARS:
+        gone[v] = gone[v] * np.nan
+    text = bracket_line(r.years, gone, "farm", "crops")
     assert "not computed" in text and "the dry N shown stands" in text
 
 

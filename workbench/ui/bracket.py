@@ -87,9 +87,9 @@ def bracket_line(years: xr.Dataset, derived, site, receptor, unit="kg/ha/yr",
              "all_particle": "pairs all as particle"}.get(split, split)
     head = f"Dry N {_fmt(b['shown'])} {unit} ({shown})"
     if not np.isfinite(b["all_gas"]) or not np.isfinite(b["all_particle"]):
-        return (f"{head}; gas/particle bracket not computed for these years (the gas and "
-                "the particle of a pair are not in one sample: the notes in budget.csv "
-                "say which); the dry N shown stands.")
+        return (f"{head}; gas/particle bracket not computed for these years (a member "
+                "of a pair has no data in them: budget.nc's bracket_*_note says which); "
+                "the dry N shown stands.")
     part = "" if b["computed"] else " (over the years where it could be computed)"
     return (f"{head}; gas/particle bracket {_fmt(b['all_particle'])} (each HNO3/pNO3 and "
             f"NH3/pNH4 pair all as particle) to {_fmt(b['all_gas'])} (all as gas){part}: "
