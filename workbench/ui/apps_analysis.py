@@ -9,6 +9,7 @@ import ipywidgets as widgets
 import numpy as np
 
 from ..analysis.exceedance import REGIONS, acidity_exceedance, nutrient_n_exceedance
+from ..analysis.trends import MIN_YEARS
 from ..analysis.whatif import GROUP_TEXT, GROUPS, MODES, group_deposition, path_table, plain_statement
 from .controls import Progress, caution_box, figure_widget, open_with_progress, refresh, table_html
 from .figures_analysis import clf_spec
@@ -270,12 +271,16 @@ def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":
             t = tr[tr["element"] == el] if len(tr) else tr
             if len(t):
                 r = t.iloc[0]
+                n = int(r["n_years"])
+                years_text = f"{n} complete year{'' if n == 1 else 's'}"
                 if not np.isfinite(r["sen_slope_per_yr"]):   # too few years for a slope
-                    row[f"{el}_trend"] = f"no slope: {r['n_years']} complete years"
+                    row[f"{el}_trend"] = f"no slope: {years_text}"
                 else:
                     row[f"{el}_trend"] = (
                         f"{r['sen_slope_per_yr']:+.3g} kg {el}/ha/yr per yr (p {r['p_value']:.2g}"
-                        + ("" if r["valid"] else f", not valid: {r['n_years']} years") + ")")
+                        + ("" if r["valid"] else
+                           f"; indicative only: {years_text}, a valid trend needs {MIN_YEARS}")
+                        + ")")
             else:
                 row[f"{el}_trend"] = "–"
         ex = exceedance_table(res, catalogue)
