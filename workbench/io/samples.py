@@ -210,7 +210,8 @@ def read_precipitation(path, catalogue, flag_map=None):
     (:func:`workbench.wet.unitslip.unit_slip_notes`).
     """
     tab, n, sites, start, end, samplers = _interval_table(path, catalogue, PRECIP_REQUIRED)
-    repeat, repeat_why = duplicate_rows(tab, sites, samplers, start, end, "sample")
+    repeat, repeat_why, repeat_note = duplicate_rows(tab, sites, samplers, start, end,
+                                                     "sample")
     check_time_zones(tab, sites, mask=~repeat)
     check_overlaps(tab, sites, samplers, start, end, mask=~repeat)
     parts = [repeat_why]
@@ -296,6 +297,8 @@ def read_precipitation(path, catalogue, flag_map=None):
                        reasons)
     empty = empty | repeat
     ledger = Ledger.for_rows(tab.path, tab.lines, sites, reasons, empty)
+    if repeat_note:
+        ledger.notes.append(repeat_note)
     if unknown:
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
     if tab.missing_note():
@@ -396,7 +399,8 @@ def read_air(path, catalogue, reference_state=None):
     if not cols:
         raise InputError("no species columns", file=tab.path, line=tab.header_line,
                          expected="at least one of " + ", ".join(_species.AIR_GASES + _species.AIR_PARTICLES))
-    repeat, repeat_why = duplicate_rows(tab, sites, samplers, start, end, "air")
+    repeat, repeat_why, repeat_note = duplicate_rows(tab, sites, samplers, start, end,
+                                                     "air")
     check_time_zones(tab, sites, mask=~repeat)
     for sp, name in cols.items():
         u = tab.headers[name].unit or ""
@@ -446,6 +450,8 @@ def read_air(path, catalogue, reference_state=None):
     known = set(AIR_REQUIRED) | {"sampler_id", "method"} | set(cols.values()) | {
         f"method_{s}" for s in cols} | {f"{s}_method" for s in cols}
     unknown = tab.unknown_columns(known)
+    if repeat_note:
+        ledger.notes.append(repeat_note)
     if unknown:
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
     if tab.missing_note():
