@@ -243,8 +243,9 @@ class Ledger:
         out = (ex.groupby(["file", "status", "reason"])["n"].sum().rename("rows")
                .reset_index())
         lines = self._reason_lines()
-        out["lines"] = [compact_lines(np.concatenate(lines[k]))
-                        for k in zip(out["file"], out["status"], out["reason"])]
+        none = [np.empty(0, np.int64)]
+        out["lines"] = [compact_lines(np.concatenate(lines.get((str(f), s, r), none)))
+                        for f, s, r in zip(out["file"], out["status"], out["reason"])]
         return out
 
     def _reason_lines(self) -> dict:
