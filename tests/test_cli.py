@@ -465,3 +465,28 @@ def test_demo_totals_lie_in_published_ranges_and_the_doc_table_is_current(demo_r
         assert abs(m["S_total_kg_ha_yr"] - s) <= 0.051, (key, m["S_total_kg_ha_yr"])
         assert abs(m["N_total_kg_ha_yr"] - n) <= 0.051, (key, m["N_total_kg_ha_yr"])
         assert abs(m["pH_pwm"] - ph) <= 0.0051, (key, m["pH_pwm"])
+
+
+def test_span_rows_say_what_is_missing(demo_run, capsys):
+    """A whole-span row whose years are partial names the missing components (demo fell
+    and mere: NO2 is not measured there); a complete span row names none; a flagged one
+    names its flagged components, those of the years it is made of."""
+    t = pd.read_csv(demo_run / "budget.csv", keep_default_na=False)
+    tot = t[(t["species"] == "all") & (t["pathway"] == "total")]
+    span, years = tot[tot["period"] == "span"], tot[tot["period"] != "span"]
+    for site in ("fell", "mere"):
+        row = span[(span["site"] == site) & (span["element"] == "N")]
+        assert len(row) and (row["status"] == "partial").all()
+        assert (row["missing_components"] == "NO2").all()
+    complete = span[span["status"] == "complete"]
+    assert len(complete) and (complete["missing_components"] == "").all()
+    assert (complete["flagged_components"] == "").all()
+    key = ["site", "receptor", "element"]
+    for _, row in span.iterrows():                       # the union over the years used
+        used = row["years_used"].split()
+        yr = years.merge(row[key].to_frame().T, on=key)
+        yr = yr[yr["period"].astype(str).isin(used)]
+        for col in ("missing_components", "flagged_components"):
+            assert set(row[col].split()) == {w for v in yr[col] for w in v.split()}, (row, col)
+        if row["status"] == "partial":
+            assert row["missing_components"] != ""

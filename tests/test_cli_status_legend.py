@@ -13,3 +13,6 @@ def test_demo_says_what_the_statuses_mean(tmp_path, capsys):
     for w in shown:
         assert f"{w} (" in legend, w
     assert "missing_components" in legend and "report.html" in legend
+    head, *rows = table.strip().splitlines()[1:]
+    assert "missing_components" in head              # the span rows say what is missing
+    assert any(" partial " in r and r.split()[6] == "NO2" for r in rows if " N " in r)

@@ -23,14 +23,52 @@ def test_run_folder_counts_every_input_row(tmp_path):
     out = tmp_path / "run"
     assert main(["run", str(scen), "--out", str(out), "--quiet"]) == 0
     rows = pd.read_csv(out / "input_rows.csv", keep_default_na=False)
-    assert list(rows.columns) == ["file", "status", "reason", "rows"]
+    assert list(rows.columns) == ["file", "status", "reason", "rows", "lines"]
     totals = rows[rows["reason"] == ""].groupby("file")["rows"].sum()
     assert len(totals) == 3                                   # precipitation, air, met
     for name, n in totals.items():                           # read = every data line
         assert n == _data_lines(Path(name)), name
     rej = rows[rows["file"].str.endswith("precip.csv") & (rows["status"] == "rejected")]
     assert rej["rows"].tolist() == [1, 1]                     # the total, then its reason
-    assert rej["reason"].iloc[1].startswith("exact repeat of line")
+    assert rej["reason"].iloc[1] == "exact repeat of an earlier line (dropped)"
+    last = len(lines) + 1                                      # the repeat's line number
+    assert rej["lines"].tolist() == ["", f"line {last}"]
     prov = json.loads((out / "provenance.json").read_text())
     assert "input_rows.csv" in prov["outputs"]
     assert isinstance(prov["input_notes"], list) and isinstance(prov["run_notes"], list)
+    pair = f"line {last} repeats line {last - 1}"          # which line repeats which
+    assert any(n.endswith(f"precip.csv: 1 exact repeat dropped: {pair}")
+               for n in prov["input_notes"])
+    report = (out / "report.html").read_text()
+    assert pair in report and f"line {last}</td>" in report
+
+
+def _doubled(path: Path) -> tuple[int, int]:
+    """Append every data row of a file again; returns (data rows, first repeat's line)."""
+    text = path.read_text().splitlines()
+    body = [ln for ln in text if ln.strip() and not ln.startswith("#")][1:]   # no header
+    head = len(text) - len(body)                      # header and comment lines
+    path.write_text("\n".join(text + body) + "\n")
+    return len(body), head + len(body) + 1
+
+
+def test_check_groups_the_repeats_of_a_doubled_upload(tmp_path, capsys):
+    """A doubled air file and a doubled precipitation file: one reason line each in
+    ``workbench check``, with the count of the repeats and their line numbers; the
+    notes say which line repeats which."""
+    scen = tb._write(tmp_path)
+    n_air, first_air = _doubled(scen.parent / "air.csv")
+    n_pr, first_pr = _doubled(scen.parent / "precip.csv")
+    assert n_air > 2 and n_pr > 2
+    assert main(["check", str(scen), "--quiet"]) == 0
+    out = capsys.readouterr().out
+    reasons = out.split("reasons:")[1].split("notes:")[0]
+    repeat = [ln for ln in reasons.splitlines() if "exact repeat" in ln]
+    assert len(repeat) == 2, repeat                   # one line per file
+    for name, n, first in (("air.csv", n_air, first_air), ("precip.csv", n_pr, first_pr)):
+        ln, = [r for r in repeat if name in r]
+        assert "exact repeat of an earlier line (dropped)" in ln
+        assert f" {n} " in ln and f"lines {first}-{first + n - 1}" in ln
+        assert (f"{name}: {n} exact repeats dropped: lines {first}-{first + n - 1} repeat "
+                f"lines {first - n}-{first - 1}") in out
+    assert "exact repeat of line" not in out

@@ -195,12 +195,14 @@ def cmd_demo(args) -> int:
     span = t[(t["period"] == "span") & (t["species"] == "all") & (t["pathway"] == "total")]
     if len(span):
         print("whole-span totals (mean of the years that pass completeness):")
-        print(span[["site", "receptor", "element", "flux_kg_ha_yr", "flux_eq_ha_yr", "status",
-                    "years_used"]].to_string(index=False, float_format=lambda v: f"{v:.3g}"))
+        cols = ["site", "receptor", "element", "flux_kg_ha_yr", "flux_eq_ha_yr", "status",
+                "missing_components", "years_used"]
+        print(span[[c for c in cols if c in span]].to_string(
+            index=False, float_format=lambda v: f"{v:.3g}"))
         print("status: complete (every component, passes completeness); filled (gaps "
-              "filled); partial (a component has no data: budget.csv's missing_components "
-              "per year); flagged (fails completeness, or holds something to read with care: "
-              "report.html says which)")
+              "filled); partial (a component has no data: missing_components names it, "
+              "here and per year in budget.csv); flagged (fails completeness, or holds "
+              "something to read with care: report.html says which)")
     print()
     print(f"report: {written['report.html']}")
     return 0

@@ -147,7 +147,9 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     ``partial`` passes (it says which components are absent, not that the present
     ones are incomplete), and so does a total ``flagged`` only because kept samples
     failed a check or the sulfate basis fell back (its span row stays ``flagged``).
-    The rows list the years used and excluded.
+    The rows list the years used and excluded, and the components missing and flagged
+    in any year used (``missing_components``, ``flagged_components``: the union over
+    those years, in component order), so that a ``partial`` span row says what it lacks.
     """
     t = year_table.copy()
     t["year"] = t["period_start"].dt.year
@@ -185,8 +187,27 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     agg["flux_kg_ha"] = agg["flux_kg_ha_yr"]
     agg["flux_eq_ha"] = agg["flux_eq_ha_yr"]
     agg["period"] = "span"
-    cols = list(BUDGET_COLUMNS) + ["period", "years_used", "years_excluded"]
+    order = {sp: i for i, sp in enumerate(pd.unique(t.loc[t["species"] != "all", "species"]))}
+    for col in ("missing_components", "flagged_components"):
+        agg[col] = _union_of_parts(used, keys, col, order).reindex(
+            pd.MultiIndex.from_frame(agg[keys])).fillna("").to_numpy(dtype=object)
+    cols = list(BUDGET_COLUMNS) + ["period", "years_used", "years_excluded",
+                                   "missing_components", "flagged_components"]
     return agg[cols]
+
+
+def _union_of_parts(rows: pd.DataFrame, keys, col: str, order: dict) -> pd.Series:
+    """The space-joined component names of `col` over the rows of each `keys` group:
+    each name once, in component order (`order`: name -> position).  Indexed by `keys`;
+    groups without a name are left out."""
+    if col not in rows:
+        return pd.Series(dtype=object, index=pd.MultiIndex.from_tuples([], names=keys))
+    names = rows[keys + [col]].assign(**{col: rows[col].fillna("").astype(str).str.split()})
+    names = names.explode(col).dropna(subset=[col])
+    names = names[names[col] != ""].drop_duplicates()
+    pos = names[col].map(order).fillna(len(order))
+    names = names.assign(_pos=pos).sort_values(keys + ["_pos", col], kind="stable")
+    return names.groupby(keys, sort=False)[col].agg(" ".join)
 
 
 def _wet_columns(ds: xr.Dataset, frame: pd.DataFrame, basis: str) -> pd.DataFrame:

@@ -269,19 +269,20 @@ def write_report_html(result, study, scenario, path):
 def write_input_rows(result, study, scenario, path):
     """input_rows.csv: every row of every input file counted by status and reason.
 
-    Columns ``file, status, reason, rows``. For each file and status one line with an
-    empty reason holds the number of rows in that status; the lines below it count each
+    Columns ``file, status, reason, rows, lines``. For each file and status one line with
+    an empty reason holds the number of rows in that status; the lines below it count each
     single reason (a row with two reasons is counted under both, so the reason lines of
-    a status can add up to more than its total). Read = accepted + flagged + rejected
-    holds per file (:meth:`workbench.io.ledger.Ledger.check_balanced`).
+    a status can add up to more than its total), with the file's line numbers of that
+    reason in ``lines`` (``lines 442-881``; the first runs). Read = accepted + flagged +
+    rejected holds per file (:meth:`workbench.io.ledger.Ledger.check_balanced`).
     """
     led = study.inputs.ledger
     if not led.rows():
         return None
     totals = led.summary().melt(id_vars=["file"], value_vars=list(STATUSES),
                                 var_name="status", value_name="rows")
-    totals = totals[totals["rows"] > 0].assign(reason="")
-    table = pd.concat([totals[["file", "status", "reason", "rows"]], led.reasons()],
+    totals = totals[totals["rows"] > 0].assign(reason="", lines="")
+    table = pd.concat([totals[["file", "status", "reason", "rows", "lines"]], led.reasons()],
                       ignore_index=True)
     order = {s: i for i, s in enumerate(STATUSES)}
     table = (table.assign(_s=table["status"].map(order), _r=table["reason"] != "")

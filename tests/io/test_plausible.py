@@ -80,7 +80,8 @@ def test_exact_repeat_dropped_with_ledger_entry(tmp_path, cat):
     p.write_text(PRECIP + row + "\n")
     ds, led = read_precipitation(p, cat)
     assert ds.sizes["sample"] == 4
-    assert _ledger_reasons(led)[6] == ("rejected", "exact repeat of line 2 (dropped)")
+    assert _ledger_reasons(led)[6] == ("rejected", "exact repeat of an earlier line (dropped)")
+    assert "p.csv: 1 exact repeat dropped: line 6 repeats line 2" in led.notes
     assert led.check_balanced()
 
 

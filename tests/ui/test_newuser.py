@@ -165,7 +165,7 @@ def test_a_duplicated_upload_is_told_in_the_explorer(tmp_path):
         app = SiteExplorer.from_scenario(sc, site="ridge", years=(2021, 2021))
     box, = [w for w in app.children if "wb-input-rows" in getattr(w, "_dom_classes", ())]
     assert f"{len(body):,} rejected" in box.value
-    assert box.value.count("exact repeat of line n (dropped)") == 1
+    assert box.value.count("exact repeat of an earlier line (dropped)") == 1
     assert f"<td>{len(body)}</td>" in box.value
 
 

@@ -167,15 +167,21 @@ def duplicate_rows(tab: RawTable, sites, samplers, start, end, what="sample"):
     drop : ndarray of bool
         Exact repeats, not used.
     reasons : ndarray of str
-        Their ledger reason ("" for the others).
+        Their ledger reason ("" for the others): :data:`REPEAT_REASON`, one text for
+        every repeat, so that the ledger counts them on one line (its line numbers are
+        in :meth:`workbench.io.ledger.Ledger.reasons`).
+    note : str
+        Which line repeats which, for the ledger notes (:func:`repeat_note`; "" when
+        there is no repeat).
     """
     n = len(sites)
     drop = np.zeros(n, bool)
     reasons = np.full(n, "", dtype=object)
+    of_line = np.zeros(n, np.int64)
     df = pd.DataFrame({"site": sites, "start": start, "end": end})
     dup = df.duplicated(keep=False).to_numpy()
     if not dup.any():
-        return drop, reasons
+        return drop, reasons, ""
     values = [c for c in tab.frame.columns if c not in ("site", "start", "end", "sampler_id")]
     # only the few repeated rows are visited, one group of repeats at a time
     for _, g in df.iloc[np.flatnonzero(dup)].groupby(["site", "start", "end"], sort=False):
@@ -189,7 +195,8 @@ def duplicate_rows(tab: RawTable, sites, samplers, start, end, what="sample"):
                 col = _first_difference(tab, values, i, j)
                 if col is None:
                     drop[i] = True
-                    reasons[i] = f"exact repeat of line {line_j} (dropped)"
+                    reasons[i] = REPEAT_REASON
+                    of_line[i] = line_j
                     break
                 raise tab.error(f"duplicate upload: same site, sampler and {what} period as "
                                 f"line {line_j}, with other values", row=i, column=col,
@@ -197,7 +204,41 @@ def duplicate_rows(tab: RawTable, sites, samplers, start, end, what="sample"):
                                 expected=f"one row per site, sampler and period (line {line_j} "
                                 f"has {tab.frame[col].iloc[j]!r}); keep the corrected row only, "
                                 "or give collocated samplers their own sampler_id")
-    return drop, reasons
+    return drop, reasons, repeat_note(tab, np.asarray(tab.lines)[drop], of_line[drop])
+
+
+#: The ledger reason of a row dropped as an exact repeat of an earlier row (no line
+#: number in it: the ledger groups the rows of one reason; :func:`repeat_note` pairs them).
+REPEAT_REASON = "exact repeat of an earlier line (dropped)"
+
+
+def repeat_note(tab: RawTable, lines, of_lines, runs: int = 5) -> str:
+    """The ledger note saying which line repeats which, in runs of consecutive lines.
+
+    Parameters
+    ----------
+    lines, of_lines : array of int
+        Line of each dropped repeat and the line it repeats, in file order.
+
+    Returns
+    -------
+    str
+        E.g. ``"air.csv: 440 exact repeats dropped: lines 442-881 repeat lines 2-441"``
+        (the first `runs` runs, then how many more); "" for none.
+    """
+    a, b = np.asarray(lines, np.int64), np.asarray(of_lines, np.int64)
+    if len(a) == 0:
+        return ""
+    cut = np.flatnonzero((np.diff(a) != 1) | (np.diff(b) != 1)) + 1
+    first, last = np.r_[0, cut], np.r_[cut, len(a)] - 1
+    text = []
+    for i, j in zip(first[:runs], last[:runs]):
+        text.append(f"line {a[i]} repeats line {b[i]}" if i == j else
+                    f"lines {a[i]}-{a[j]} repeat lines {b[i]}-{b[j]}")
+    more = int(np.sum(last[runs:] - first[runs:] + 1))
+    tail = f"; and {more} more (input_rows.csv lists their lines)" if more else ""
+    return (f"{tab.path.name}: {len(a)} exact repeat{'s' * (len(a) != 1)} dropped: "
+            + "; ".join(text) + tail)
 
 
 def release_free_memory() -> bool:

@@ -229,16 +229,84 @@ class Ledger:
         return counts.reset_index()
 
     def reasons(self) -> pd.DataFrame:
-        """Counts of each single reason per file and status."""
+        """Counts of each single reason per file and status.
+
+        Columns ``file, status, reason, rows, lines``: `lines` is the compact list of
+        the line numbers of the file with that reason (:func:`compact_lines`), so that a
+        reason text never carries a line number and the rows of one reason are one line.
+        """
         c = self._counts() if self.rows() else None
         if c is None or not (c["reason"] != "").any():
-            return pd.DataFrame(columns=["file", "status", "reason", "rows"])
+            return pd.DataFrame(columns=["file", "status", "reason", "rows", "lines"])
         t = c[c["reason"] != ""]
         ex = t.assign(reason=t["reason"].str.split("; ")).explode("reason")
-        return (ex.groupby(["file", "status", "reason"])["n"].sum().rename("rows")
-                .reset_index())
+        out = (ex.groupby(["file", "status", "reason"])["n"].sum().rename("rows")
+               .reset_index())
+        lines = self._reason_lines()
+        none = [np.empty(0, np.int64)]
+        out["lines"] = [compact_lines(np.concatenate(lines.get((str(f), s, r), none)))
+                        for f, s, r in zip(out["file"], out["status"], out["reason"])]
+        return out
+
+    def _reason_lines(self) -> dict:
+        """(file, status, single reason) -> list of arrays of the line numbers [1]."""
+        out: dict = {}
+        for p in self.parts:
+            if isinstance(p, CodedRows):
+                file, lines, codes, texts = p.file, p.lines, p.reason_codes, p.reasons
+                status = np.asarray(STATUSES, dtype=object)[p.status()]
+            else:
+                sel = (p["reason"] != "").to_numpy()
+                if not sel.any():
+                    continue
+                for file, g in p[sel].groupby("file", sort=False):
+                    codes, texts = pd.factorize(g["reason"].to_numpy(dtype=object))
+                    _line_groups(out, str(file), g["line"].to_numpy(), g["status"].to_numpy(
+                        dtype=object), codes, np.asarray(texts, dtype=object))
+                continue
+            has = (np.asarray(texts, dtype=object) != "")[codes]
+            if has.any():
+                _line_groups(out, file, np.asarray(lines)[has], status[has], codes[has],
+                             np.asarray(texts, dtype=object))
+        return out
 
     def check_balanced(self) -> bool:
         """True when every row has exactly one status (read = accepted+flagged+rejected)."""
         s = self.summary()
         return bool((s["read"] == s[list(STATUSES)].sum(axis=1)).all())
+
+
+def _line_groups(out: dict, file: str, lines, status, codes, texts):
+    """Add the line numbers of rows (`codes` index `texts`, "; "-joined reasons) to
+    `out[(file, status, single reason)]`: one stable sort, then one slice per group."""
+    st_codes, st_names = pd.factorize(status)
+    key = st_codes.astype(np.int64) * len(texts) + codes
+    order = np.argsort(key, kind="stable")
+    ks, ls = key[order], np.asarray(lines)[order]
+    cut = np.flatnonzero(np.diff(ks)) + 1
+    for k, chunk in zip(ks[np.r_[0, cut]], np.split(ls, cut)):
+        st, text = st_names[k // len(texts)], texts[k % len(texts)]
+        for reason in str(text).split("; "):
+            out.setdefault((file, st, reason), []).append(chunk)
+
+
+def compact_lines(lines, runs: int = 3) -> str:
+    """Line numbers as a short text: the first `runs` runs of consecutive lines, then
+    the count of the others.
+
+    >>> compact_lines([442, 443, 444, 881])
+    'lines 442-444, 881'
+    >>> compact_lines([7])
+    'line 7'
+    >>> compact_lines([2, 4, 6, 8, 9])
+    'lines 2, 4, 6, ... (2 more)'
+    """
+    v = np.unique(np.asarray(lines, dtype=np.int64))
+    if len(v) == 0:
+        return ""
+    cut = np.flatnonzero(np.diff(v) != 1) + 1
+    starts, ends = v[np.r_[0, cut]], v[np.r_[cut, len(v)] - 1]
+    text = ", ".join(f"{a}" if a == b else f"{a}-{b}" for a, b in zip(starts[:runs], ends[:runs]))
+    if len(starts) > runs:
+        text += f", ... ({int(np.sum(ends[runs:] - starts[runs:] + 1))} more)"
+    return ("line " if len(v) == 1 else "lines ") + text

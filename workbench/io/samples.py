@@ -97,6 +97,35 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None):
     return data
 
 
+def _mask_sentinels(tab, name, raw, values, parts):
+    """`values` with the missing-value codes of column `name` masked (NaN).
+
+    The codes are those of :func:`workbench.io.plausible.sentinel_mask`, compared with
+    the number as typed (`raw`, in the column's own unit); each masked row gets the
+    reason ``<column> <value> looks like a missing-value code (masked)``, appended to
+    `parts` (the per-row reasons of the reader).  The same rule as the ion columns.
+
+    Parameters
+    ----------
+    raw : ndarray of float
+        The numbers as typed [the column's unit].
+    values : ndarray of float
+        The same numbers, possibly converted [any unit].
+
+    Returns
+    -------
+    ndarray of float
+        `values` with NaN at the codes [same unit as `values`].
+    """
+    sentinel = _plausible.sentinel_mask(raw)
+    if not sentinel.any():
+        return values
+    typed = tab.frame[name].to_numpy(dtype=object).astype(str)
+    parts.append(np.where(sentinel, f"{name.replace('_', ' ')} " + typed
+                          + " looks like a missing-value code (masked)", ""))
+    return np.where(sentinel, np.nan, values)
+
+
 def _flag_words(tab, flag_text, flag_map):
     """The flags column as our words, space-joined per row (lab codes translated).
 
@@ -181,7 +210,8 @@ def read_precipitation(path, catalogue, flag_map=None):
     (:func:`workbench.wet.unitslip.unit_slip_notes`).
     """
     tab, n, sites, start, end, samplers = _interval_table(path, catalogue, PRECIP_REQUIRED)
-    repeat, repeat_why = duplicate_rows(tab, sites, samplers, start, end, "sample")
+    repeat, repeat_why, repeat_note = duplicate_rows(tab, sites, samplers, start, end,
+                                                     "sample")
     check_time_zones(tab, sites, mask=~repeat)
     check_overlaps(tab, sites, samplers, start, end, mask=~repeat)
     parts = [repeat_why]
@@ -192,11 +222,7 @@ def read_precipitation(path, catalogue, flag_map=None):
             v = convert_plain(raw, unit, "mm")
         except ValueError as exc:
             raise unit_error(tab, name, exc, "a depth unit such as mm") from None
-        sentinel = _plausible.sentinel_mask(raw)
-        if sentinel.any():
-            parts.append(np.where(sentinel, f"{name.replace('_', ' ')} " + tab.frame[name].to_numpy(
-                dtype=object).astype(str) + " looks like a missing-value code (masked)", ""))
-            v = np.where(sentinel, np.nan, v)
+        v = _mask_sentinels(tab, name, raw, v, parts)
         if (v < 0).any():
             i = int(np.flatnonzero(v < 0)[0])
             raise tab.error("negative depth", row=i, column=name, value=tab.frame[name].iloc[i],
@@ -218,6 +244,8 @@ def read_precipitation(path, catalogue, flag_map=None):
             area = convert_plain(raw_area, u_area, "m**2")
         except ValueError as exc:
             raise unit_error(tab, "collector_area", exc, "an area unit such as cm2") from None
+        vol = _mask_sentinels(tab, "sample_volume", raw_vol, vol, parts)
+        area = _mask_sentinels(tab, "collector_area", raw_area, area, parts)
         for name, v in (("sample_volume", vol), ("collector_area", area)):
             if (v < 0).any():
                 i = int(np.flatnonzero(v < 0)[0])
@@ -228,7 +256,11 @@ def read_precipitation(path, catalogue, flag_map=None):
     else:
         sample = np.full(n, np.nan)
         parts.append(np.full(n, "no sample depth or volume column", object))
-    ph = tab.numbers("pH", missing="samples") if tab.has("pH") else np.full(n, np.nan)
+    if tab.has("pH"):
+        raw_ph = tab.numbers("pH", missing="samples")
+        ph = _mask_sentinels(tab, "pH", raw_ph, raw_ph, parts)
+    else:
+        ph = np.full(n, np.nan)
     bad = (ph < 0) | (ph > 14)
     if bad.any():
         i = int(np.flatnonzero(bad)[0])
@@ -241,6 +273,7 @@ def read_precipitation(path, catalogue, flag_map=None):
             cond = convert_plain(raw_cond, u_cond, "uS/cm")
         except ValueError as exc:
             raise unit_error(tab, "conductivity", exc, "a conductivity unit such as uS/cm") from None
+        cond = _mask_sentinels(tab, "conductivity", raw_cond, cond, parts)
         if (cond < 0).any():
             i = int(np.flatnonzero(cond < 0)[0])
             raise tab.error("negative conductivity", row=i, column="conductivity",
@@ -264,6 +297,8 @@ def read_precipitation(path, catalogue, flag_map=None):
                        reasons)
     empty = empty | repeat
     ledger = Ledger.for_rows(tab.path, tab.lines, sites, reasons, empty)
+    if repeat_note:
+        ledger.notes.append(repeat_note)
     if unknown:
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
     if tab.missing_note():
@@ -364,7 +399,8 @@ def read_air(path, catalogue, reference_state=None):
     if not cols:
         raise InputError("no species columns", file=tab.path, line=tab.header_line,
                          expected="at least one of " + ", ".join(_species.AIR_GASES + _species.AIR_PARTICLES))
-    repeat, repeat_why = duplicate_rows(tab, sites, samplers, start, end, "air")
+    repeat, repeat_why, repeat_note = duplicate_rows(tab, sites, samplers, start, end,
+                                                     "air")
     check_time_zones(tab, sites, mask=~repeat)
     for sp, name in cols.items():
         u = tab.headers[name].unit or ""
@@ -414,6 +450,8 @@ def read_air(path, catalogue, reference_state=None):
     known = set(AIR_REQUIRED) | {"sampler_id", "method"} | set(cols.values()) | {
         f"method_{s}" for s in cols} | {f"{s}_method" for s in cols}
     unknown = tab.unknown_columns(known)
+    if repeat_note:
+        ledger.notes.append(repeat_note)
     if unknown:
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
     if tab.missing_note():

@@ -4,8 +4,8 @@
 rejected, with reasons); the apps showed none of it, so a duplicated upload whose
 repeats were dropped, or a -999 code masked in the air file, left the budget looking
 as if nothing had happened.  This box states the counts and the reasons under the
-caution of each app.  Reasons that name a line (``exact repeat of line 10 (dropped)``)
-are counted together (``line n``); ``input_rows.csv`` of a run folder keeps each row.
+caution of each app.  Reasons that name a line (``overlaps lines 12-14``) are counted
+together (``lines n``); ``input_rows.csv`` of a run folder lists the lines of each reason.
 """
 from __future__ import annotations
 
