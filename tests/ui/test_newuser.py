@@ -167,6 +167,9 @@ def test_a_duplicated_upload_is_told_in_the_explorer(tmp_path):
     assert f"{len(body):,} rejected" in box.value
     assert box.value.count("exact repeat of an earlier line (dropped)") == 1
     assert f"<td>{len(body)}</td>" in box.value
+    # the first lines of the repeats, as input_rows.csv has them
+    assert "<th>first lines</th>" in box.value and "lines " in box.value.split(
+        "exact repeat of an earlier line (dropped)")[1].split("</tr>")[0]
 
 
 def test_line_numbers_of_reasons_are_counted_together():

@@ -33,8 +33,9 @@ def input_rows_text(ledger) -> tuple[str, "pandas.DataFrame"]:
     -------
     (str, pandas.DataFrame)
         ``"Input rows: 3,520 read, 1,760 accepted, 0 flagged, 1,760 rejected"`` [rows]
-        and ``file, status, reason, rows`` with the line numbers of the reasons
-        counted together (file by its name).
+        and ``file, status, reason, rows, first lines`` with the line numbers of the
+        reasons counted together (file by its name) and the first lines of each reason
+        as the ledger gives them (``lines 442-881``).
     """
     summ = ledger.summary()
     n = {c: int(summ[c].sum()) if c in summ else 0
@@ -45,7 +46,11 @@ def input_rows_text(ledger) -> tuple[str, "pandas.DataFrame"]:
         reasons = reasons.assign(file=reasons["file"].map(lambda f: Path(str(f)).name),
                                  reason=reasons["reason"].map(
                                      lambda r: LINE_NUMBER.sub(r"\1 n", str(r))))
-        reasons = (reasons.groupby(["file", "status", "reason"], sort=False)["rows"].sum()
+        agg = {"rows": ("rows", "sum")}
+        if "lines" in reasons:      # the first lines of the reason (Ledger.reasons)
+            agg["first lines"] = ("lines", lambda s: next((str(v) for v in s
+                                                           if isinstance(v, str) and v), ""))
+        reasons = (reasons.groupby(["file", "status", "reason"], sort=False).agg(**agg)
                    .reset_index().sort_values(["status", "rows"], ascending=[False, False]))
     return line, reasons
 
