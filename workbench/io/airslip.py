@@ -38,7 +38,7 @@ import xarray as xr
 from .. import species as _species
 from ..constants import GAS_CONSTANT
 from ..units import concentration_kind, to_amount
-from .plausible import CHECK_PRESSURE, CHECK_TEMPERATURE
+from .plausible import check_density
 
 #: Share of a sampler's evaluable samples that must fail in one direction, and share
 #: of those the other basis must bring back (more than half: common practice for
@@ -98,18 +98,13 @@ def amount_per_number(unit: str, species: str, basis: str | None = None) -> floa
     0.708
     """
     a, kind = to_amount(np.array([1.0]), unit, species, basis)
-    if kind == "mixing_ratio":
-        a = a * CHECK_PRESSURE / (GAS_CONSTANT * CHECK_TEMPERATURE)
-    return float(a[0])
+    return float(check_density(a, kind)[0])
 
 
 def _density(ds: xr.Dataset, sp: str) -> np.ndarray:
     """A species of the dataset as amount density [mol m-3] (mixing ratios at 20 degC,
     1013.25 hPa); NaN where missing or censored."""
-    v = ds[sp].values.astype(float)
-    if ds[sp].attrs.get("quantity") == "mixing_ratio":
-        v = v * CHECK_PRESSURE / (GAS_CONSTANT * CHECK_TEMPERATURE)
-    return v
+    return check_density(ds[sp].values, str(ds[sp].attrs.get("quantity", "")))
 
 
 def _basis_text(unit: str, species: str, basis: str | None) -> str:

@@ -5,6 +5,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import InputError, suggest
+from .ledger import consecutive_runs
 from .table import RawTable
 
 
@@ -229,8 +230,7 @@ def repeat_note(tab: RawTable, lines, of_lines, runs: int = 5) -> str:
     a, b = np.asarray(lines, np.int64), np.asarray(of_lines, np.int64)
     if len(a) == 0:
         return ""
-    cut = np.flatnonzero((np.diff(a) != 1) | (np.diff(b) != 1)) + 1
-    first, last = np.r_[0, cut], np.r_[cut, len(a)] - 1
+    first, last = consecutive_runs(a, b)
     text = []
     for i, j in zip(first[:runs], last[:runs]):
         text.append(f"line {a[i]} repeats line {b[i]}" if i == j else

@@ -290,6 +290,28 @@ def _line_groups(out: dict, file: str, lines, status, codes, texts):
             out.setdefault((file, st, reason), []).append(chunk)
 
 
+def consecutive_runs(*arrays):
+    """Runs along arrays of integers that all step by 1 together.
+
+    Parameters
+    ----------
+    *arrays : array of int
+        Of one length (line numbers [1]).
+
+    Returns
+    -------
+    first, last : ndarray of int
+        Index of the first and the last element of each run.
+
+    >>> [a.tolist() for a in consecutive_runs([3, 4, 5, 9], [10, 11, 20, 21])]
+    [[0, 2, 3], [1, 2, 3]]
+    """
+    steps = [np.diff(np.asarray(a, np.int64)) != 1 for a in arrays]
+    n = len(arrays[0])
+    cut = np.flatnonzero(np.logical_or.reduce(steps)) + 1 if n > 1 else np.empty(0, np.int64)
+    return np.r_[0, cut], np.r_[cut, n] - 1
+
+
 def compact_lines(lines, runs: int = 3) -> str:
     """Line numbers as a short text: the first `runs` runs of consecutive lines, then
     the count of the others.
@@ -304,8 +326,8 @@ def compact_lines(lines, runs: int = 3) -> str:
     v = np.unique(np.asarray(lines, dtype=np.int64))
     if len(v) == 0:
         return ""
-    cut = np.flatnonzero(np.diff(v) != 1) + 1
-    starts, ends = v[np.r_[0, cut]], v[np.r_[cut, len(v)] - 1]
+    first, last = consecutive_runs(v)
+    starts, ends = v[first], v[last]
     text = ", ".join(f"{a}" if a == b else f"{a}-{b}" for a, b in zip(starts[:runs], ends[:runs]))
     if len(starts) > runs:
         text += f", ... ({int(np.sum(ends[runs:] - starts[runs:] + 1))} more)"

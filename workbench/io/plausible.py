@@ -55,7 +55,20 @@ UNIT_SLIP = 1000.0
 #: Temperature and pressure used to express a mixing ratio as ug/m3 for the range
 #: checks only [K], [Pa] (20 degC, 1013.25 hPa; the checks are order-of-magnitude).
 CHECK_TEMPERATURE, CHECK_PRESSURE = 293.15, 101325.0
-_CHECK_T, _CHECK_P = CHECK_TEMPERATURE, CHECK_PRESSURE
+
+
+def check_density(amount, kind: str) -> np.ndarray:
+    """An air concentration as amount density for the checks [mol m-3]: a mixing ratio
+    [mol mol-1] taken at :data:`CHECK_TEMPERATURE` and :data:`CHECK_PRESSURE`, an
+    amount density [mol m-3] as it is.
+
+    >>> round(float(check_density(1e-9, "mixing_ratio")) * 1e9, 4)   # 1 ppb [nmol m-3]
+    41.5712
+    """
+    a = np.asarray(amount, float)
+    if kind == "mixing_ratio":
+        a = a * CHECK_PRESSURE / (GAS_CONSTANT * CHECK_TEMPERATURE)
+    return a
 
 
 def sentinel_mask(raw) -> np.ndarray:
@@ -83,10 +96,7 @@ def as_ugm3(amount, kind: str, species: str) -> np.ndarray:
         [ug m-3]; a mixing ratio taken at 20 degC and 1013.25 hPa.
     """
     m = _species.get(species).molar_mass  # [kg mol-1]
-    a = np.asarray(amount, float)
-    if kind == "mixing_ratio":
-        a = a * _CHECK_P / (GAS_CONSTANT * _CHECK_T)
-    return a * m * 1e9
+    return check_density(amount, kind) * m * 1e9
 
 
 def air_checks(species: str, ugm3, censored, groups):

@@ -79,8 +79,7 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None):
             raise unit_error(tab, name, ValueError(f"a {kind.replace('_', ' ')}"),
                              " or ".join(k.replace("_", " ") for k in kinds_allowed))
         sentinel = ~cens & _plausible.sentinel_mask(raw)
-        ledger_parts.append(np.where(sentinel, f"{sp} " + tab.frame[name].to_numpy(dtype=object)
-                                     .astype(str) + " looks like a missing-value code (masked)", ""))
+        ledger_parts.append(_sentinel_reasons(tab, name, sp, sentinel))
         masked = sentinel
         if groups is not None:
             bad, why = _plausible.air_checks(sp, _plausible.as_ugm3(np.where(sentinel, np.nan, amount),
@@ -120,10 +119,15 @@ def _mask_sentinels(tab, name, raw, values, parts):
     sentinel = _plausible.sentinel_mask(raw)
     if not sentinel.any():
         return values
-    typed = tab.frame[name].to_numpy(dtype=object).astype(str)
-    parts.append(np.where(sentinel, f"{name.replace('_', ' ')} " + typed
-                          + " looks like a missing-value code (masked)", ""))
+    parts.append(_sentinel_reasons(tab, name, name.replace("_", " "), sentinel))
     return np.where(sentinel, np.nan, values)
+
+
+def _sentinel_reasons(tab, name, label, sentinel):
+    """The ledger reason of each row whose column `name` holds a missing-value code
+    (``<label> <value as typed> looks like a missing-value code (masked)``; "" else)."""
+    return np.where(sentinel, f"{label} " + tab.frame[name].to_numpy(dtype=object).astype(str)
+                    + " looks like a missing-value code (masked)", "")
 
 
 def _flag_words(tab, flag_text, flag_map):
