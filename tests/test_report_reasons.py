@@ -21,7 +21,7 @@ def test_report_lists_reasons_of_flagged_met_rows(tmp_path):
     text = html.unescape((out / "report.html").read_text(encoding="utf-8"))
     part = text[text.index("<h2>Input rows"):]
     assert "Reasons of the flagged and rejected rows" in part
-    assert "temperature outside 183.15..333.15 K (-90..60 degC) (masked)" in part
+    assert "temperature -999 degC looks like a missing-value code (masked)" in part
     assert "wind_speed outside 0..75 m/s (masked)" in part
 
 

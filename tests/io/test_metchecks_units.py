@@ -25,7 +25,8 @@ def test_kelvin_under_kelvin_header_is_fine(tmp_path, cat):
 
 def test_range_reason_carries_units(tmp_path, cat):
     temp = np.full(72, 15.0)
-    temp[5] = -999.0                               # a missing-value code in one hour
+    temp[5] = -120.0                               # out of range, not a missing-value code
+    temp[9] = -999.0                               # a missing-value code in one hour
     wind = np.full(72, 3.0)
     wind[7] = 99.0
     met, led = read_met(met_file(tmp_path, **{"temperature [degC]": temp,
@@ -33,4 +34,5 @@ def test_range_reason_carries_units(tmp_path, cat):
     r = _reasons(led)
     assert "temperature outside 183.15..333.15 K (-90..60 degC) (masked)" in r
     assert "wind_speed outside 0..75 m/s (masked)" in r
-    assert np.isnan(met["temperature"]).sum() == 1
+    assert "temperature -999 degC looks like a missing-value code (masked)" in r
+    assert np.isnan(met["temperature"]).sum() == 2

@@ -41,15 +41,17 @@ def test_sentinel_in_air(tmp_path, cat):
     assert _ledger_reasons(led)[3] == ("flagged", "NH3 -9999 looks like a missing-value code (masked)")
 
 
-def test_whole_sampler_in_mg_per_m3(tmp_path, cat):
-    """SO2 of one filter pack typed in mg/m3 under a ug/m3 header: every value of that
-    sampler masked with the unit-slip hint; the other sampler is untouched."""
+def test_whole_sampler_in_ng_per_m3(tmp_path, cat):
+    """SO2 of one filter pack typed in ng/m3 under a ug/m3 header (2100 ng/m3 = 2.1
+    ug/m3): every value of that sampler masked with the unit-slip hint; the other
+    sampler is untouched."""
     p = tmp_path / "a.csv"
     p.write_text(AIR.replace("fp1,2.0,", "fp1,2100,").replace("fp1,<0.1,", "fp1,1800,"))
     ds, led = read_air(p, cat)
     assert np.isnan(ds["SO2"].values[:2]).all() and ds["SO2"].values[2] > 0
     r = _ledger_reasons(led)
-    hint = "SO2 values look 1000x too high at this sampler: mg/m3 read as ug/m3? (masked)"
+    hint = ("SO2 values look 1000x too high at this sampler: ng/m3 written under a ug/m3 "
+            "header? (masked)")
     assert r[3] == ("flagged", hint) and r[4] == ("flagged", hint)
     assert r[5] == ("accepted", "")
 
@@ -153,3 +155,22 @@ def test_docs_carry_the_ranges_table():
     from workbench.io.plausible import ranges_table
     doc = (Path(__file__).resolve().parents[2] / "docs" / "data_formats.md").read_text()
     assert ranges_table() in doc
+
+
+@pytest.mark.parametrize("old, new, hint", [
+    ("SO2 [ug/m3]", "SO2 [mg/m3]", "SO2 values look 1000x too high at this sampler: ug/m3 "
+     "written under a mg/m3 header? (masked)"),
+    ("NO2 [ppb]", "NO2 [ppm]", "NO2 values look 1000x too high at this sampler: ppb "
+     "written under a ppm header? (masked)"),
+])
+def test_unit_slip_hint_names_the_header_unit(tmp_path, cat, old, new, hint):
+    """ug/m3 values under a mg/m3 header, ppb values under a ppm header: the hint names
+    the unit 1000x smaller than the header's (before, it said "mg/m3 read as ug/m3",
+    the wrong way round: such values would be 1000x too low)."""
+    p = tmp_path / "a.csv"
+    p.write_text(AIR.replace(old, new))
+    ds, led = read_air(p, cat)
+    sp = new.split(" ")[0]
+    assert np.isnan(ds[sp].values[:2]).all()
+    reasons = {x for _, r in _ledger_reasons(led).values() for x in r.split("; ")}
+    assert {x for x in reasons if "too high" in x} == {hint}

@@ -14,7 +14,8 @@ from ..constants import STANDARD_PRESSURE, ZERO_CELSIUS
 from ..surface.air import standard_pressure_at
 from ..surface.solar import solar_elevation_sine, time_parts
 from .common import join_reasons
-from .metvars import MET_VARIABLES
+from .metvars import MET_VARIABLES, convert_met
+from .plausible import SENTINELS
 
 #: Hard ranges (internal units) beyond which a value is masked (common practice).
 RANGES = {
@@ -30,15 +31,24 @@ RANGES = {
     "surface_wet": (0.0, 1.0),
     "snow_cover": (0.0, 1.0),
 }
+#: Hours above the hard maximum of solar radiation at a site, as a count and as a share
+#: of its hours with sunshine, from which the site's whole record is taken as written in
+#: another unit [-]; fewer are single bad hours, masked by the hard range (common practice).
+RADIATION_SLIP_HOURS, RADIATION_SLIP_SHARE = 3, 0.01
 #: Median temperature of a site above which a degC (or degF) header holds kelvin [K]
 #: (60 degC read from the header: no station reports that as its median; common practice).
 KELVIN_MEDIAN_MIN = ZERO_CELSIUS + 150.0
 
 
 def range_text(name, lo, hi) -> str:
-    """The hard range of a variable with its unit, in degC too for temperature [text]."""
+    """The hard range of a variable with its unit, in degC too for temperature [text].
+
+    >>> range_text("relative_humidity", 0.0, 1.05)
+    '0..1.05 (fraction)'
+    """
     unit = MET_VARIABLES.get(name, ("",))[0].replace("**", "")
-    text = f"{lo:g}..{hi:g} {unit}".rstrip()
+    text = f"{lo:g}..{hi:g} " + ("(fraction)" if unit == "1" else unit)
+    text = text.rstrip()
     if name == "temperature":
         text += f" ({lo - ZERO_CELSIUS:g}..{hi - ZERO_CELSIUS:g} degC)"
     return text
@@ -66,6 +76,69 @@ def solar_elevation_deg(time_utc, latitude, longitude):
     doy, hour = time_parts(t)
     s = solar_elevation_sine(doy, hour, np.asarray(latitude, float), np.asarray(longitude, float))
     return np.rad2deg(np.arcsin(np.clip(s, -1, 1)))
+
+
+def missing_codes(values, raw_units):
+    """Mask the missing-value codes typed as met values.
+
+    A code of :data:`workbench.io.plausible.SENTINELS` (-999, 9999, ...) is recognised
+    in the file's own unit (the codes are converted as the column was, so the match is
+    exact).  A negative code is always taken as a code: the hard ranges catch all of
+    them but -99 to -99.99 W/m2 of sensible heat, which would otherwise enter as data.
+    A positive code is taken as a code only outside the variable's hard range, since
+    999.9 hPa or 999.9 W/m2 can be real.  Runs before the per-site unit checks, so that
+    one code does not make a site's whole record look like another unit.
+
+    Parameters
+    ----------
+    values : dict of str to ndarray
+        Converted values per variable [internal units]; not changed.
+    raw_units : dict of str to str
+        The unit each variable was written in.
+
+    Returns
+    -------
+    masked : dict of str to ndarray of bool
+        Per variable with a code, the rows holding one.
+    reasons : list of ndarray of str
+        Per such variable, ``<variable> <code> <unit> looks like a missing-value code
+        (masked)`` at those rows, "" elsewhere.
+
+    >>> import numpy as np
+    >>> m, r = missing_codes({"sensible_heat_flux": np.array([-99.0, -45.0])},
+    ...                      {"sensible_heat_flux": "W/m2"})
+    >>> m["sensible_heat_flux"].tolist(), str(r[0][0])
+    ([True, False], 'sensible heat flux -99 W/m2 looks like a missing-value code (masked)')
+    """
+    codes = np.asarray(SENTINELS, float)
+    masked, reasons = {}, []
+    for name, v in values.items():
+        unit = raw_units.get(name)
+        if unit is None or name not in MET_VARIABLES:
+            continue
+        conv = np.asarray(convert_met(codes, str(unit), name, MET_VARIABLES[name][0]), float)
+        lo, hi = RANGES.get(name, (-np.inf, np.inf))
+        # codes that the hard range lets through: only a negative one counts as a code there
+        inside = (conv >= lo) & (conv <= hi)
+        check = ~inside | (codes < 0)
+        cand = (v < lo) | (v > hi)
+        if (inside & check).any():
+            cand |= np.isin(v, conv[inside & check])
+        if not cand.any():
+            continue
+        idx = np.flatnonzero(cand)
+        which = np.full(len(v), -1)
+        for k in np.flatnonzero(check):
+            which[idx[v[idx] == conv[k]]] = k
+        hit = which >= 0
+        if not hit.any():
+            continue
+        label = name.replace("_", " ")
+        text = np.array([f"{label} {c:g} {str(unit).strip()} looks like a missing-value code "
+                         "(masked)" for c in codes] + [""], dtype=object)
+        masked[name] = hit
+        reasons.append(text[np.where(hit, which, len(codes))])
+    return masked, reasons
 
 
 def expected_station_pressure(elevation_m):
@@ -104,6 +177,11 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
         if sel.any():
             parts.append(np.where(sel, reason, ""))
 
+    # missing-value codes first: one -999 or 9999 must not make a site look mis-scaled
+    coded, coded_reasons = missing_codes(values, raw_units)
+    for name, sel in coded.items():
+        values[name] = np.where(sel, np.nan, values[name])
+    parts.extend(coded_reasons)
     # relative humidity written as a fraction under a % header (or the reverse)
     if "relative_humidity" in values:
         rh = values["relative_humidity"]
@@ -135,9 +213,15 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
         sr = values["solar_radiation"]
         g = frame.assign(v=sr).groupby("site")["v"]
         smax, scount = g.transform("max").to_numpy(), g.transform("count").to_numpy()
+        hi_sr = RANGES["solar_radiation"][1]
+        gh = frame.assign(hi=sr > hi_sr, sun=sr > 0).groupby("site")
+        n_hi = gh["hi"].transform("sum").to_numpy()
+        n_sun = gh["sun"].transform("sum").to_numpy()
         lat = per_site("latitude")
-        mask("solar_radiation", smax > RANGES["solar_radiation"][1],
-             "solar radiation above 1500 W/m2 at this site: unit likely not W/m2 (masked)")
+        mask("solar_radiation", (n_hi >= RADIATION_SLIP_HOURS)
+             & (n_hi >= RADIATION_SLIP_SHARE * n_sun),
+             f"solar radiation above {hi_sr:g} W/m2 at many hours of this site: unit likely "
+             "not W/m2 (masked)")
         mask("solar_radiation", (smax < 50) & (scount >= 24 * 60) & (np.abs(lat) < 60),
              "solar radiation never above 50 W/m2 at this site: unit likely not W/m2 (masked)")
     # cumulative precipitation

@@ -336,8 +336,18 @@ class _ChunkParser:
         return site_idx, t, got, n, n_bytes, zoned, found
 
     def _frame(self, chunk, na):
+        df = self._read(chunk, na, self.dtype)
+        if any(df[c].cat.categories.dtype.kind in "iufb" for c in ("site", "time")):
+            # pandas infers numeric categories: station numbers ("0101" would become
+            # 101) and spreadsheet serial dates are read again as text
+            df = self._read(chunk, na, {**self.dtype, "site": str, "time": str})
+            df["site"] = df["site"].astype(object).astype("category")
+            df["time"] = df["time"].astype(object).astype("category")
+        return df
+
+    def _read(self, chunk, na, dtype):
         return pd.read_csv(io.BytesIO(chunk), header=None, names=self.names,
-                           usecols=self.used, dtype=self.dtype,
+                           usecols=self.used, dtype=dtype,
                            na_values={c: na for c in self.used[2:]}, keep_default_na=False,
                            skip_blank_lines=False, low_memory=False)
 

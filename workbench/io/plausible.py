@@ -8,7 +8,8 @@ row flagged with a hint, so that the ledger says what happened to it:
   masked (a small negative stays censored, as before);
 * an air concentration above the plausible maximum of its species: masked; when more
   than half of a sampler's values sit above the maximum and a factor 1000 brings them
-  back into range, the hint names the likely unit slip (mg/m3 read as ug/m3).
+  back into range, the hint names the likely unit slip (ng/m3 written under a ug/m3
+  header, ppb under ppm).
 
 The thresholds are in :data:`AIR_RANGES`, each with its source.  Slips that stay in
 range (element vs species basis of a particle column, ppb vs ug/m3 of a gas measured
@@ -50,8 +51,13 @@ AIR_RANGES = {
     "pCa": (50.0, 0.5, "common practice: soil dust calcium"),
 }
 
-#: Factor a mg/m3 value read as ug/m3 is too high by [-].
+#: Factor by which values written in a unit 1000x smaller than their header's (ng/m3
+#: under a ug/m3 header, ppb under ppm) are too high [-].
 UNIT_SLIP = 1000.0
+#: Units a column may be written in, searched for the one 1000x smaller than a header's.
+_SLIP_UNITS = ("pg/m3", "ng/m3", "ug/m3", "mg/m3", "ppt", "ppb", "ppm",
+               "fmol/mol", "pmol/mol", "nmol/mol", "umol/mol", "pmol/m3", "nmol/m3",
+               "umol/m3", "mmol/m3")
 #: Temperature and pressure used to express a mixing ratio as ug/m3 for the range
 #: checks only [K], [Pa] (20 degC, 1013.25 hPa; the checks are order-of-magnitude).
 CHECK_TEMPERATURE, CHECK_PRESSURE = 293.15, 101325.0
@@ -99,7 +105,30 @@ def as_ugm3(amount, kind: str, species: str) -> np.ndarray:
     return check_density(amount, kind) * m * 1e9
 
 
-def air_checks(species: str, ugm3, censored, groups):
+def thousandth_unit(unit: str | None) -> str:
+    """The unit 1000x smaller than `unit`, as a user would write it ("" if none known).
+
+    >>> thousandth_unit("ug/m3"), thousandth_unit("ppm"), thousandth_unit("nmol/mol")
+    ('ng/m3', 'ppb', 'pmol/mol')
+    """
+    from ..units import Q_, parse_unit
+    try:
+        u, _ = parse_unit(str(unit))
+    except Exception:            # an unparsable unit was refused before; no name then
+        return ""
+    moles = "mol" in str(unit)           # nmol/mol -> pmol/mol rather than ppt
+    for c in sorted(_SLIP_UNITS, key=lambda c: ("mol" in c) != moles):
+        try:
+            cu, _ = parse_unit(c)
+        except ValueError:       # a unit this registry lacks
+            continue
+        if cu.dimensionality == u.dimensionality and np.isclose(
+                Q_(1.0, u).to(cu).magnitude, UNIT_SLIP):
+            return c
+    return ""
+
+
+def air_checks(species: str, ugm3, censored, groups, unit: str | None = None):
     """Range and unit-slip checks of one air species.
 
     Parameters
@@ -110,6 +139,8 @@ def air_checks(species: str, ugm3, censored, groups):
     censored : ndarray of bool
     groups : ndarray of str
         One label per row (site and sampler): a unit slip is judged per group.
+    unit : str, optional
+        The column's unit as written in the header, named in the unit-slip hint.
 
     Returns
     -------
@@ -132,8 +163,11 @@ def air_checks(species: str, ugm3, censored, groups):
                  .transform("mean").to_numpy())
         slip = too_high & (share > 0.5) & (v / UNIT_SLIP <= hi)
         reasons[too_high & ~slip] = (f"{species} above the plausible {hi:g} ug/m3 (masked)")
+        small = thousandth_unit(unit) if unit else ""
+        guess = (f"{small} written under a {unit} header?" if small else
+                 f"values in a unit {UNIT_SLIP:g}x smaller than the header's?")
         reasons[slip] = (f"{species} values look {UNIT_SLIP:g}x too high at this sampler: "
-                         "mg/m3 read as ug/m3? (masked)")
+                         f"{guess} (masked)")
     return too_low | too_high, reasons
 
 

@@ -83,7 +83,8 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None):
         masked = sentinel
         if groups is not None:
             bad, why = _plausible.air_checks(sp, _plausible.as_ugm3(np.where(sentinel, np.nan, amount),
-                                                                     kind, sp), cens, groups)
+                                                                     kind, sp), cens, groups,
+                                             unit=unit)
             masked = masked | bad
             ledger_parts.append(why)
         amount = np.where(masked, np.nan, amount)
