@@ -78,7 +78,8 @@ BAD_SCENARIOS = {
                              "one of canopy_height_m"),
     "number_as_text": ("[sites.alpha]\ncanopy_height_m = \"0.2 m\"\n",
                        "line 4, column 'sites.alpha.canopy_height_m': wrong type: got '0.2 m', "
-                       "expected a int or float"),
+                       "expected a number (canopy height of the site's surface [m]); write the "
+                       "number alone, without quotes, in the unit the key names"),
     "override_roughness_zero": ("[sites.beta]\nroughness_length_m = 0.0\n",
                                 "line 4, column 'sites.beta.roughness_length_m': roughness length "
                                 "not positive: got '0.0', expected z0 > 0 m"),

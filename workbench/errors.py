@@ -7,6 +7,7 @@ expected, so that no traceback from deep inside pandas reaches a user.
 from __future__ import annotations
 
 import difflib
+import re
 
 
 class WorkbenchError(Exception):
@@ -80,6 +81,50 @@ def suggest(word: str, choices) -> str:
 
     >>> suggest("precipitaton", ["precipitation", "air"])
     " (did you mean 'precipitation'?)"
+    >>> suggest("grasland", ["moorland", "grass"]), suggest("Grass", ["grass", "crops"])
+    (" (did you mean 'grass'?)", " (did you mean 'grass'?)")
     """
-    close = difflib.get_close_matches(str(word), [str(c) for c in choices], n=1, cutoff=0.6)
+    word, choices = str(word), [str(c) for c in choices]
+    same = [c for c in choices if c.lower() == word.lower()]          # only the case differs
+    close = same or difflib.get_close_matches(word, choices, n=3, cutoff=0.6)
+    # among close choices, one sharing the word's first three letters reads as meant
+    start = [c for c in close if c[:3].lower() == word[:3].lower()]
+    close = start or close
     return f" (did you mean {close[0]!r}?)" if close else ""
+
+
+#: How a TOML value type reads in a message.
+_TYPE_WORDS = {int: "a whole number", float: "a number", str: "text in quotes",
+               list: "a list [...]", dict: "a table", bool: "true or false"}
+
+
+def type_words(typ) -> str:
+    """The expected TOML type in words ("a number" for int or float).
+
+    >>> type_words((int, float)), type_words(str)
+    ('a number', 'text in quotes')
+    """
+    types = (typ,) if isinstance(typ, type) else tuple(typ)
+    if set(types) == {int, float}:
+        return "a number"
+    return " or ".join(_TYPE_WORDS.get(t, t.__name__) for t in types)
+
+
+def type_hint(v) -> str:
+    """A hint for a value of the wrong type: a number written in quotes, or degrees with
+    minutes ("" otherwise).
+
+    >>> type_hint("52.0"), type_hint("52°30'N"), type_hint("0.2 m")
+    ('; write the number without quotes', "; write decimal degrees (52°30' is 52.5)", '; write the number alone, without quotes, in the unit the key names')
+    """
+    if isinstance(v, str) and any(m in v for m in ("°", "'", '"')) and any(c.isdigit() for c in v):
+        return "; write decimal degrees (52°30' is 52.5)"
+    if isinstance(v, str) and re.match(r"\s*[-+]?\d+(\.\d*)?\s*[A-Za-z%]", v):
+        return "; write the number alone, without quotes, in the unit the key names"
+    if isinstance(v, str):
+        try:
+            float(v)
+        except ValueError:
+            return ""
+        return "; write the number without quotes"
+    return ""

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from .constants import MAX_FIXED_VD_CM_S
-from .errors import ScenarioError, suggest
+from .errors import ScenarioError, suggest, type_hint, type_words
 
 
 #: section -> key -> (types, default, description).  A default of None means "not set".
@@ -171,10 +171,9 @@ def _check_plain_section(section, keys, given, path, lines):
                                 + ", ".join(keys) + suggest(key, keys))
         typ, _, desc = keys[key]
         if isinstance(value, bool) and typ is not bool or not isinstance(value, typ):
-            names = typ.__name__ if isinstance(typ, type) else " or ".join(t.__name__ for t in typ)
             raise ScenarioError("wrong type", file=path, line=_line_of(lines, section, key),
                                 column=f"{section}.{key}", value=value,
-                                expected=f"a {names} ({desc})")
+                                expected=f"{type_words(typ)} ({desc})" + type_hint(value))
         out[key] = value
     for key, (_, default, _) in keys.items():
         out.setdefault(key, copy.deepcopy(default))

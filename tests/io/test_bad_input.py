@@ -172,7 +172,7 @@ def test_two_columns_for_one_species(write, cat):
 def test_sites_wrong_type(write):
     p = write("s.toml", SITES.replace("latitude = 52.0", 'latitude = "52 N"'))
     _raises(read_sites, p, match="s.toml, line 4, column 'latitude': wrong type: got '52 N', "
-            "expected a int or float (degrees north, -90..90)")
+            "expected a number (degrees north, -90..90)")
 
 
 def test_sites_unknown_key(write):
@@ -225,3 +225,20 @@ def test_blanks_at_cell_edges_are_stripped_and_inner_ones_kept(tmp_path):
     assert list(tab.numbers("value")) == [1.5, 2.0]
     p.write_text("site,value\nridge,1.5\nmere,2\n")
     assert list(RawTable.read(p).numbers("value")) == [1.5, 2.0]
+
+
+@pytest.mark.parametrize("value, hint", [
+    ('"52.0"', "; write the number without quotes"),
+    ("\"52°30'N\"", "; write decimal degrees (52°30' is 52.5)"),
+])
+def test_sites_wrong_type_hints(write, value, hint):
+    p = write("s.toml", SITES.replace("latitude = 52.0", f"latitude = {value}"))
+    _raises(read_sites, p, match="expected a number (degrees north, -90..90)" + hint)
+
+
+@pytest.mark.parametrize("typo, meant", [("grasland", "grass"), ("Grass", "grass"),
+                                         ("conifer", "conifer_forest")])
+def test_land_use_suggestion_reads_as_meant(write, typo, meant):
+    """Before, 'grasland' suggested 'moorland' (nearer by difflib's ratio)."""
+    p = write("s.toml", SITES.replace('land_use = "grass"', f'land_use = "{typo}"'))
+    _raises(read_sites, p, match=f"(did you mean {meant!r}?)")

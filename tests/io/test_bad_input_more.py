@@ -215,7 +215,8 @@ SITE_CASES = {
                                      "'wet_only'?)"),
     "height_as_text": (("wind_height_m = 30.0", 'wind_height_m = "30 m"'),
                        "line 26, column 'wind_height_m': wrong type: got '30 m', expected a "
-                       "int or float"),
+                       "number (height of the wind measurement [m]); write the number alone, "
+                       "without quotes, in the unit the key names"),
     "receptor_not_a_class": (('receptors = ["conifer_forest"]', 'receptors = ["forest"]'),
                              "line 12, column 'receptors': unknown land-use class: got 'forest'"),
 }

@@ -12,7 +12,7 @@ from pathlib import Path
 import numpy as np
 import xarray as xr
 
-from ..errors import InputError, suggest
+from ..errors import InputError, suggest, type_hint, type_words
 from ..landuse import LAND_USE
 
 from .tomlfile import read_toml
@@ -333,8 +333,8 @@ def _type_check(t, err):
                       + suggest(key, SITE_KEYS))
         typ, _, desc = SITE_KEYS[key]
         if isinstance(v, bool) or not isinstance(v, typ):
-            names = typ.__name__ if isinstance(typ, type) else " or ".join(x.__name__ for x in typ)
-            raise err("wrong type", key, v, f"a {names} ({desc})")
+            raise err("wrong type", key, v, f"{type_words(typ)} ({desc})" + type_hint(v))
+
 
 
 def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
