@@ -179,3 +179,13 @@ def test_catalogue_error_is_located_in_the_catalogue(tmp_path):
     with pytest.raises(InputError) as exc:
         load_scenario(p)
     assert str(exc.value).startswith(f"{tmp_path / 's.toml'}, line 25, column 'canopy_height_m'")
+
+
+def test_site_catalogue_given_as_the_scenario(tmp_path):
+    """A user passing sites.toml where the scenario belongs is told which file to give."""
+    p = tmp_path / "sites.toml"
+    p.write_text((DEMO / "sites.toml").read_text())
+    with pytest.raises(ScenarioError) as exc:
+        load_scenario(p)
+    assert "a site catalogue, not a scenario, expected the scenario file, whose [inputs] " \
+        "names this catalogue as sites = ..." in str(exc.value)

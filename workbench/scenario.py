@@ -292,6 +292,11 @@ def validate(raw: dict, path=None, text: str = "") -> Scenario:
     lines = text.splitlines()
     options = option_sections()
     known = list(SCHEMA) + list(options) + ["sites"]
+    if "site" in raw and "inputs" not in raw:       # [[site]] tables: a site catalogue
+        raise ScenarioError("a site catalogue, not a scenario", file=path,
+                            line=_line_of(lines, "site"), column="site",
+                            expected="the scenario file, whose [inputs] names this catalogue "
+                            "as sites = ...")
     for section, value in raw.items():
         if section not in known:
             raise ScenarioError("unknown section", file=path, line=_line_of(lines, section),
