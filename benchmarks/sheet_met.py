@@ -8,7 +8,8 @@ The met CSV of :func:`network.make_network` (N/2 invented sites, 2 years each) i
 written twice into a temporary folder, gzipped: plainly, and as a sheet saved as CSV
 with every cell (header included) in quotes and CRLF line ends (and with ``--padded``
 a third time, with a blank on each side of every comma; with ``--notes`` plainly with a
-quoted column of text holding a comma).  Each read is
+quoted column of text holding a comma; with ``--numbered`` plainly with station numbers
+``0001``, ``0002``... as site ids, in a catalogue of its own).  Each read is
 :func:`workbench.io.met.read_met` in a fresh Python process with the package of one
 checkout (``--roots``, each put first on ``PYTHONPATH``), which reports its wall time
 (the read alone), its CPU time (user + system of all its threads, the read alone) and
@@ -74,6 +75,25 @@ def write_inputs(folder, site_years):
     return Path(folder) / "sites.toml", plain, sheet, padded, noted
 
 
+def write_numbered(folder, sites, plain):
+    """(sites.toml, met.csv.gz) of the network with station numbers as site ids
+    (``0001``...): zero-padded numbers, as monitoring networks number their stations."""
+    import re
+    text = Path(sites).read_text(encoding="utf-8")
+    ids = re.findall(r'^id = "([^"]+)"', text, flags=re.M)
+    new = {s: f"{k + 1:04d}" for k, s in enumerate(ids)}
+    text = re.sub(r'^id = "([^"]+)"', lambda m: f'id = "{new[m.group(1)]}"', text, flags=re.M)
+    out_sites = Path(folder) / "numbered_sites.toml"
+    out_sites.write_text(text, encoding="utf-8")
+    out_met = Path(folder) / "numbered_met.csv.gz"
+    with gzip.open(plain, "rt", encoding="utf-8") as src, \
+            gzip.open(out_met, "wt", encoding="utf-8", compresslevel=1) as out:
+        for ln in src:
+            site, sep, rest = ln.partition(",")
+            out.write((new.get(site, site) + sep + rest) if sep else ln)
+    return out_sites, out_met
+
+
 def read_once(root, met, sites):
     env = dict(os.environ, PYTHONPATH=str(root))
     out = subprocess.run([sys.executable, "-c", _CHILD, str(met), str(sites)], env=env,
@@ -96,18 +116,22 @@ def main(argv=None):
                     help="also read the file with blanks around the cells")
     ap.add_argument("--notes", action="store_true",
                     help="also read the file with a quoted notes column holding commas")
+    ap.add_argument("--numbered", action="store_true",
+                    help="also read the plain file with station numbers as site ids")
     args = ap.parse_args(argv)
     results = []
     with tempfile.TemporaryDirectory(prefix="workbench-sheet-") as tmp:
         sites, plain, sheet, padded, noted = write_inputs(tmp, args.site_years)
-        files = [("quoted CRLF", sheet)] + ([("plain", plain)] if args.plain else []) \
-            + ([("padded", padded)] if args.padded else []) \
-            + ([("notes", noted)] if args.notes else [])
+        files = [("quoted CRLF", sheet, sites)] + ([("plain", plain, sites)] if args.plain else []) \
+            + ([("padded", padded, sites)] if args.padded else []) \
+            + ([("notes", noted, sites)] if args.notes else [])
+        if args.numbered:
+            files.append(("numbered", *reversed(write_numbered(tmp, sites, plain))))
         for k in range(args.repeat):
             for root in args.roots:
-                for what, met in files:
+                for what, met, cat in files:
                     before = _load()
-                    got = read_once(Path(root).resolve(), met, sites)
+                    got = read_once(Path(root).resolve(), met, cat)
                     got.update(root=root, file=what, load_before=before, load_after=_load())
                     results.append(got)
                     print(f"{root:>24} {what:>12}: wall {got['wall']:6.2f} s, CPU "
