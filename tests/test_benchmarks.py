@@ -181,3 +181,12 @@ def test_same_run_masks_stamps_and_ids_only(tmp_path, capsys):
     assert [n for n, _ in same_run.differing(a, b)] == ["budget.csv", "report.html"]
     assert same_run.main([str(a), str(b)]) == 1
     assert "report.html: differs" in capsys.readouterr().out
+
+
+def test_sheet_met_benchmark_reads_every_variant_alike(capsys):
+    """Each variant of the met file (quoted, plain, numbered ids) gives the same rows."""
+    bench = _load("sheet_met")
+    out = bench.main(["--site-years", "4", "--plain", "--numbered"])
+    assert [r["file"] for r in out] == ["quoted CRLF", "plain", "numbered"]
+    assert len({r["rows"] for r in out}) == 1 and out[0]["rows"] > 0
+    assert len({r["sites"] for r in out}) == 1
