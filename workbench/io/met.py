@@ -118,7 +118,37 @@ def check_hours(sites, t, where, name_row):
         i = int(np.flatnonzero(dup)[0])
         first = int(np.flatnonzero((sites == sites[i]) & (t == t[i]))[0])
         raise where(i, "duplicate hourly timestamp",
-                    f"one row per site and hour (also on {name_row(first)})")
+                    f"one row per site and hour (also on {name_row(first)})"
+                    + _repeat_hint(sites, t, i, first))
+
+
+#: Months in which clocks go back from summer time, north and south (common practice).
+CLOCK_BACK_MONTHS = (3, 4, 9, 10, 11)
+
+
+def clock_change_hint(adjacent: bool, month: int) -> str:
+    """A hint when a repeated hour looks like the hour a clock repeats when it goes back
+    from summer time: the two rows follow each other for their site and fall in a month
+    of clock changes (:data:`CLOCK_BACK_MONTHS`); "" otherwise.
+
+    >>> clock_change_hint(True, 10)[:48]
+    '; the clock going back from summer time? Write t'
+    >>> clock_change_hint(True, 7), clock_change_hint(False, 10)
+    ('', '')
+    """
+    if not adjacent or month not in CLOCK_BACK_MONTHS:
+        return ""
+    return ("; the clock going back from summer time? Write the times in the site's "
+            "standard time (utc_offset_h) or with their offset, e.g. 02:00+02:00 then "
+            "02:00+01:00")
+
+
+def _repeat_hint(sites, t, i, first) -> str:
+    """:func:`clock_change_hint` of row `i` repeating row `first` (t: UTC hour ends)."""
+    same_site = np.flatnonzero(sites == sites[i])
+    k = int(np.searchsorted(same_site, i))
+    adjacent = k > 0 and same_site[k - 1] == first
+    return clock_change_hint(adjacent, int(str(np.datetime64(t[i], "M"))[5:7]))
 
 
 def _assemble(values, sites, t, lines, path, catalogue, raw_units, empty_reason):

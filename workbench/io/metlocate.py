@@ -252,10 +252,17 @@ def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour
 
 def _raise_repeat(path, raw_headers, repeat, line_text):
     """The line reader's error for a repeated hour (workbench.io.met.check_hours)."""
+    from .met import clock_change_hint
     line, first = repeat
+    value = line_text(line)["time"]
+    try:
+        month = pd.Timestamp(str(value)[:10]).month
+    except ValueError:
+        month = 0
     raise InputError("duplicate hourly timestamp", file=Path(path), line=line,
-                     column=raw_headers["time"], value=line_text(line)["time"],
-                     expected=f"one row per site and hour (also on line {first})")
+                     column=raw_headers["time"], value=value,
+                     expected=f"one row per site and hour (also on line {first})"
+                     + clock_change_hint(line == first + 1, month))
 
 
 class ZoneTally:
