@@ -153,13 +153,16 @@ LABEL_SITES = [("westfield", "West Test Field", 38.5, -77.0, -5.0),
                ("northfen", "North Test Fen", 60.0, 11.0, 1.0)]
 
 
-def _met_csv(path, site_rows, zoned=False):
-    """A met CSV of hour-ending labels; naive local time, or with the site's zone."""
+def _met_csv(path, site_rows, zoned=False, label="end"):
+    """A met CSV of hourly labels (hour-ending, or hour-beginning with ``# time_label:
+    start``); naive local time, or with the site's zone."""
     frames = []
     for sid, _, _, _, off in site_rows:
         local = pd.date_range("2022-03-18 01:00", periods=24 * 8, freq="h")
         local = local.append(pd.date_range("2022-06-19 01:00", periods=24 * 4, freq="h"))
         local = local.append(pd.date_range("2022-12-19 01:00", periods=24 * 4, freq="h"))
+        if label == "start":
+            local = local - pd.Timedelta(hours=1)
         text = local.strftime("%Y-%m-%dT%H:%M")
         if zoned:
             hh, mm = divmod(abs(int(round(off * 60))), 60)
@@ -168,29 +171,32 @@ def _met_csv(path, site_rows, zoned=False):
             "site": sid, "time": text, "wind_speed [m/s]": 3.0, "temperature [degC]": 12.0,
             "relative_humidity [%]": 70.0, "solar_radiation [W/m2]": 0.0,
             "precipitation [mm]": 0.0, "pressure [hPa]": 1005.0}))
-    pd.concat(frames).to_csv(path, index=False)
+    head = "# time_label: start\n" if label == "start" else ""
+    path.write_text(head + pd.concat(frames).to_csv(index=False))
     return path
 
 
-@pytest.mark.parametrize("zoned", [False, True])
-def test_reader_labels_give_the_sun_of_the_utc_instant(tmp_path, zoned):
+@pytest.mark.parametrize("zoned, label", [(False, "end"), (True, "end"), (False, "start")])
+def test_reader_labels_give_the_sun_of_the_utc_instant(tmp_path, zoned, label):
     # a site with a UTC offset gets, through the met reader, the sun SPA gives at the
     # corresponding UTC instant: the label in the site's fixed zone, minus half an hour
+    # (plus half an hour for a file that declares hour-beginning labels)
     from workbench.io.met import read_met
     from workbench.io.sites import read_sites
     (tmp_path / "sites.toml").write_text("\n".join(
         _SITES.format(id=i, name=n, lat=la, lon=lo, off=off) for i, n, la, lo, off in LABEL_SITES))
     cat = read_sites(tmp_path / "sites.toml")
-    met, _ = read_met(_met_csv(tmp_path / "met.csv", LABEL_SITES, zoned), cat)
-    raw = pd.read_csv(tmp_path / "met.csv")
+    met, _ = read_met(_met_csv(tmp_path / "met.csv", LABEL_SITES, zoned, label), cat)
+    raw = pd.read_csv(tmp_path / "met.csv", comment="#")
+    to_mid = pd.Timedelta(minutes=30 if label == "start" else -30)
     for sid, _, lat, lon, off in LABEL_SITES:
         rows = raw[raw["site"] == sid]
         zone = dt.timezone(dt.timedelta(hours=off))
         if zoned:
-            end = pd.DatetimeIndex(pd.to_datetime(rows["time"], format="ISO8601"))
+            stamp = pd.DatetimeIndex(pd.to_datetime(rows["time"], format="ISO8601"))
         else:
-            end = pd.DatetimeIndex(pd.to_datetime(rows["time"])).tz_localize(zone)
-        mid_utc = end.tz_convert("UTC") - pd.Timedelta(minutes=30)
+            stamp = pd.DatetimeIndex(pd.to_datetime(rows["time"])).tz_localize(zone)
+        mid_utc = stamp.tz_convert("UTC") + to_mid
         times = met["time"].values[~np.isnan(met["temperature"].sel(site=sid).values)]
         assert len(times) == len(rows)
         ours = _engine_zenith(times, lat, lon)
