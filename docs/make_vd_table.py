@@ -53,8 +53,21 @@ GROUP_NAMES = {"grass": "grass", "forest": "forests", "land": "land",
                "semi_natural": "semi-natural (dep. only)"}
 
 
-def demo_means(gases=GASES):
+def demo_study():
+    """The demo scenario's :class:`workbench.pipeline.Study` (met read once)."""
+    from workbench.pipeline import Study
+    from workbench.scenario import load_scenario
+    return Study.from_scenario(load_scenario(DEMO))
+
+
+def demo_means(gases=GASES, study=None):
     """Annual mean Vd of the demo year [cm s-1] by (transfer, scheme) and gas.
+
+    Parameters
+    ----------
+    gases : sequence of str
+    study : workbench.pipeline.Study, optional
+        The demo's (:func:`demo_study`), read here when not given.
 
     Returns
     -------
@@ -64,9 +77,7 @@ def demo_means(gases=GASES):
         (site, receptor): the receptors each site asks for.
     """
     from workbench.drydep import DryOptions, velocities
-    from workbench.pipeline import Study
-    from workbench.scenario import load_scenario
-    study = Study.from_scenario(load_scenario(DEMO))
+    study = study or demo_study()
     met = study.inputs.met.sel(time=slice(*YEAR))
     surf = study.surfaces()
     out = {}
@@ -150,8 +161,13 @@ ORDERINGS = [("HNO3", "pNO3"), ("SO2", "NO2")]
 DECIMALS = {**{g: 2 for g in GASES}, **{p: 3 for p in PARTICLES}}
 
 
-def year_means():
+def year_means(study=None):
     """Annual mean Vd [cm s-1] of every full year of the demo record, default transfer.
+
+    Parameters
+    ----------
+    study : workbench.pipeline.Study, optional
+        The demo's (:func:`demo_study`), read here when not given.
 
     Returns
     -------
@@ -163,9 +179,7 @@ def year_means():
     """
     from workbench.comparison import annual_vd_by_year
     from workbench.drydep import DryOptions, velocities
-    from workbench.pipeline import Study
-    from workbench.scenario import load_scenario
-    study = Study.from_scenario(load_scenario(DEMO))
+    study = study or demo_study()
     met, surf = study.inputs.met, study.surfaces()
     out = {}
     for scheme in SCHEMES:
@@ -306,9 +320,10 @@ def _replace(text, markers, body, after=None) -> str:
 
 
 def main():
-    means, active = demo_means()
+    study = demo_study()
+    means, active = demo_means(study=study)
     text = _replace(DOC.read_text(), MARKERS, tables(means, active))
-    text = _replace(text, YEAR_MARKERS, year_tables(year_means()), after=MARKERS[1])
+    text = _replace(text, YEAR_MARKERS, year_tables(year_means(study)), after=MARKERS[1])
     DOC.write_text(text)
 
 

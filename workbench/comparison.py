@@ -157,15 +157,27 @@ def annual_vd_by_year(velocities, names=COMPARED_GASES):
         raise ValueError("annual_vd_by_year: the time axis "
                          f"{str(t[0])[:16]} to {str(t[-1])[:16]} covers no full calendar "
                          f"year (UTC); years touched: {', '.join(incomplete)}")
-    keep = (where >= 0) & full[np.clip(where, 0, None)]
-    label = xr.DataArray(years[where[keep]], dims="time", name="year")
+    keep = np.flatnonzero((where >= 0) & full[np.clip(where, 0, None)])
+    # the full years are runs of consecutive hours: sums over each run (no loop over hours)
+    label = years[where[keep]]
+    first = np.flatnonzero(np.r_[True, label[1:] != label[:-1]])
     active = velocities["active"] if "active" in velocities else True
     out = {}
     for name in names:
-        vd = velocities[f"vd_{name}"].isel(time=keep).where(active)
-        vd = vd.assign_coords(year=label.assign_coords(time=vd["time"]))
-        out[f"vd_{name}"] = vd.groupby("year").mean("time").transpose("year", ...) * 100.0
-        out[f"vd_{name}"].attrs.update(units="cm s-1", long_name=f"annual mean Vd of {name}")
-        out[f"hours_{name}"] = vd.notnull().groupby("year").sum("time").transpose("year", ...)
-        out[f"hours_{name}"].attrs.update(units="h", long_name="hours with a value")
+        vd = velocities[f"vd_{name}"].where(active).transpose(..., "time")
+        values = np.asarray(vd.values, dtype=float)[..., keep]
+        valid = np.isfinite(values)
+        total = np.add.reduceat(np.where(valid, values, 0.0), first, axis=-1)
+        count = np.add.reduceat(valid, first, axis=-1)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            mean = np.where(count > 0, total / count, np.nan) * 100.0
+        dims = vd.dims[:-1]
+        coords = {d: vd[d].values for d in dims if d in vd.coords}
+        coords["year"] = label[first]
+        mean = xr.DataArray(mean, dims=dims + ("year",), coords=coords,
+                            attrs={"units": "cm s-1", "long_name": f"annual mean Vd of {name}"})
+        hours = xr.DataArray(count, dims=dims + ("year",), coords=coords,
+                             attrs={"units": "h", "long_name": "hours with a value"})
+        out[f"vd_{name}"] = mean.transpose("year", ...)
+        out[f"hours_{name}"] = hours.transpose("year", ...)
     return xr.Dataset(out, attrs={"incomplete_years": "; ".join(incomplete)})
