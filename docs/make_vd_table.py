@@ -258,8 +258,8 @@ def _hour_gaps(ym) -> str:
     big = [f"{s} {y} ({int(lack[i, j])} h)" for i, y in enumerate(years)
            for j, s in enumerate(ym["site"].values) if lack[i, j] > 24]
     small = int(np.where(lack > 24, 0, lack).max())
-    return (f"over a day without a value at {', '.join(big) or 'no site'}; elsewhere "
-            f"at most {small} h of a year")
+    return (f"over a day without a value at {', '.join(big) or 'no site'};\n"
+            f"elsewhere at most {small} h of a year without one")
 
 
 def year_tables(yms) -> str:
@@ -272,11 +272,11 @@ def year_tables(yms) -> str:
                       for s in SCHEMES)
     lines = [f"Every full calendar year (UTC) of the demo record, {years[0]}-{years[-1]} "
              f"(N = {n}), `ustar_transfer =", f"\"{TRANSFERS[0]}\"` (the default), every "
-             "other option at its default; one run over the whole record",
-             "per scheme. Years left out (not every hour on the met time axis): "
+             "other option at its default; one run over the whole", "record per scheme.",
+             "Years left out (not every hour on the met time axis): "
              f"{first.attrs['incomplete_years']}.",
-             f"Hours of the full years: {_hour_gaps(first)};",
-             "means over the hours with a value.", "",
+             f"Hours of the full years: {_hour_gaps(first)}.",
+             "Means over the hours with a value.", "",
              "Ranges: years met out of N, and the span over the years of the group's "
              "smallest and", "largest annual mean [cm/s] (particles under both schemes: "
              "the particle scheme does", "not depend on the gas scheme):", "",
