@@ -192,9 +192,10 @@ WHY = {
     ("zhang2003", "HNO3", "forest"): "the farm deciduous stand (Zhang's u*-dependent Rc "
     "at the landscape-scale u*)",
     ("zhang2003", "NO2", "land"): "NO2 takes 0.8 of O3's cuticle and ground uptake",
-    **{(s, "pNO3", g): f"the {where}, in the windiest years (20 % of the nitrate in the "
-       "coarse mode by the inland default)" for s in ("wesely1989", "zhang2003")
-       for g, where in (("grass", "ridge and fell grass"), ("forest", "ridge conifer"))},
+    **{(s, "pNO3", g): f"the {where} (20 % of the nitrate in the coarse mode by the "
+       "inland default)" for s in ("wesely1989", "zhang2003")
+       for g, where in (("grass", "ridge and fell grass in the windiest years"),
+                        ("forest", "ridge conifer in the windiest year"))},
 }
 
 
