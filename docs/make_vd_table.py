@@ -7,6 +7,14 @@ with a value) of :func:`workbench.drydep.velocities` on the demo scenario's met 
 surfaces, for both gas schemes and both transfers of u*, every other option at its
 default.  ``tests/drydep/test_drydep_schemes.py`` computes the same means for its range
 checks and fails when the tables in the document are not the ones these means give.
+
+The text between the ``<!-- vd-years -->`` markers (right after) is the same check for
+every full calendar year (UTC) of the demo record, under the default transfer only:
+one call of :func:`workbench.drydep.velocities` per gas scheme over the whole record,
+then :func:`workbench.comparison.annual_vd_by_year`; for each common-practice range the
+years met out of N and the span over the years of the group's smallest and largest
+annual mean, the fine-particle ranges, and the orderings HNO3 > pNO3 and SO2 > NO2
+over every surface.
 """
 from __future__ import annotations
 
@@ -45,8 +53,21 @@ GROUP_NAMES = {"grass": "grass", "forest": "forests", "land": "land",
                "semi_natural": "semi-natural (dep. only)"}
 
 
-def demo_means(gases=GASES):
+def demo_study():
+    """The demo scenario's :class:`workbench.pipeline.Study` (met read once)."""
+    from workbench.pipeline import Study
+    from workbench.scenario import load_scenario
+    return Study.from_scenario(load_scenario(DEMO))
+
+
+def demo_means(gases=GASES, study=None):
     """Annual mean Vd of the demo year [cm s-1] by (transfer, scheme) and gas.
+
+    Parameters
+    ----------
+    gases : sequence of str
+    study : workbench.pipeline.Study, optional
+        The demo's (:func:`demo_study`), read here when not given.
 
     Returns
     -------
@@ -56,9 +77,7 @@ def demo_means(gases=GASES):
         (site, receptor): the receptors each site asks for.
     """
     from workbench.drydep import DryOptions, velocities
-    from workbench.pipeline import Study
-    from workbench.scenario import load_scenario
-    study = Study.from_scenario(load_scenario(DEMO))
+    study = study or demo_study()
     met = study.inputs.met.sel(time=slice(*YEAR))
     surf = study.surfaces()
     out = {}
@@ -127,21 +146,185 @@ def tables(means, active) -> str:
     return "\n".join(lines)
 
 
+# --- every full year of the record ---------------------------------------------------------
+#: Particles of the per-year table (fine sulfate and ammonium; nitrate, 20 % of it in the
+#: coarse mode at the inland demo sites, methods_dry_particles.md 10.1).
+PARTICLES = ("pSO4", "pNO3", "pNH4")
+#: Common-practice ranges of annual mean particle Vd [cm s-1] (review papers recalled
+#: from memory in issue 12): fine particles 0.05-0.3 over grass, 0.1-0.6 over forests.
+PARTICLE_RANGES = [(p, "grass", 0.05, 0.3) for p in PARTICLES] + \
+    [(p, "forest", 0.1, 0.6) for p in PARTICLES]
+#: Orderings of the annual means asked for over every surface (every active receptor).
+ORDERINGS = [("HNO3", "pNO3"), ("SO2", "NO2")]
+#: Decimals of the annual means compared with a range (as the 2021 tables and the
+#: particle checks of tests/drydep/test_drydep_particles_demo.py).
+DECIMALS = {**{g: 2 for g in GASES}, **{p: 3 for p in PARTICLES}}
+
+
+def year_means(study=None):
+    """Annual mean Vd [cm s-1] of every full year of the demo record, default transfer.
+
+    Parameters
+    ----------
+    study : workbench.pipeline.Study, optional
+        The demo's (:func:`demo_study`), read here when not given.
+
+    Returns
+    -------
+    dict
+        scheme -> xarray.Dataset of :func:`workbench.comparison.annual_vd_by_year`
+        (``vd_<name>`` and ``hours_<name>`` by year, site, receptor) for the gases and
+        the particles; the particles are computed once (the particle scheme does not
+        depend on the gas scheme) and shown under both schemes.
+    """
+    from workbench.comparison import annual_vd_by_year
+    from workbench.drydep import DryOptions, velocities
+    study = study or demo_study()
+    met, surf = study.inputs.met, study.surfaces()
+    out = {}
+    for scheme in SCHEMES:
+        parts = PARTICLES if scheme == SCHEMES[0] else ()
+        ds = velocities(met, surf, DryOptions(gas_scheme=scheme, particles=parts,
+                                              components=False, ustar_transfer=TRANSFERS[0]))
+        out[scheme] = annual_vd_by_year(ds, GASES + parts)
+    first = out[SCHEMES[0]]
+    for scheme in SCHEMES[1:]:
+        out[scheme] = out[scheme].assign({k: first[k] for k in first.data_vars
+                                          if k.split("_", 1)[1] in PARTICLES})
+    return out
+
+
+def group_by_year(ym, name, group):
+    """Annual means of `name` over the group's (site, receptor) pairs, rounded as
+    compared with the ranges: array (year, pair) [cm s-1]."""
+    import numpy as np
+    vd = ym[f"vd_{name}"]
+    cols = [vd.sel(site=s, receptor=r).values for s, r in GROUPS[group]]
+    return np.round(np.stack(cols, axis=1), DECIMALS[name])
+
+
+def years_missed(ym, name, group, lo, hi) -> list:
+    """The years in which an annual mean of the group lies outside [lo, hi]."""
+    vals = group_by_year(ym, name, group)
+    inside = ((vals >= lo) & (vals <= hi)).all(axis=1)
+    return [int(y) for y, ok in zip(ym["year"].values, inside) if not ok]
+
+
+def ordering_by_year(ym, high, low):
+    """Smallest ratio high/low of the annual means over every active receptor, by year
+    [-] (array (year,)); above 1 where `high` exceeds `low` everywhere."""
+    import numpy as np
+    ratio = (ym[f"vd_{high}"] / ym[f"vd_{low}"]).values
+    return np.nanmin(ratio.reshape(ratio.shape[0], -1), axis=1)
+
+
+def _years_cell(years, missed) -> str:
+    n, met = len(years), [y for y in years if y not in missed]
+    if len(met) in (0, n):
+        return f"{len(met)}/{n}"
+    if len(met) > n / 2:
+        return f"{len(met)}/{n} (missed {', '.join(map(str, missed))})"
+    return f"{len(met)}/{n} (met {', '.join(map(str, met))})"
+
+
+def _span(values, decimals) -> str:
+    lo, hi = float(min(values)), float(max(values))
+    return f"{lo:.{decimals}f}" if round(lo, decimals) == round(hi, decimals) \
+        else f"{lo:.{decimals}f}-{hi:.{decimals}f}"
+
+
+def _range_row(yms, name, group, lo, hi) -> str:
+    cells = []
+    for scheme in SCHEMES:
+        ym = yms[scheme]
+        vals = group_by_year(ym, name, group)
+        years = [int(y) for y in ym["year"].values]
+        dec = DECIMALS[name]
+        cells += [_years_cell(years, years_missed(ym, name, group, lo, hi)),
+                  _span(vals.min(axis=1), dec), _span(vals.max(axis=1), dec)]
+    return f"| {name} {GROUP_NAMES[group]} {lo:g}-{hi:g} | " + " | ".join(cells) + " |"
+
+
+def _hour_gaps(ym) -> str:
+    """Sites and years of the record whose active receptors lack more than a day of
+    hours with a value, and the most hours lacking elsewhere."""
+    import numpy as np
+    hours = np.stack([ym[f"hours_{g}"].values for g in GASES]).min(axis=0)  # year,site,rec
+    active = np.isfinite(ym[f"vd_{GASES[0]}"].values)
+    years = ym["year"].values
+    needed = np.array([366 if y % 4 == 0 and (y % 100 != 0 or y % 400 == 0) else 365
+                       for y in years]) * 24
+    lack = np.where(active, needed[:, None, None] - hours, 0).max(axis=2)   # year, site
+    big = [f"{s} {y} ({int(lack[i, j])} h)" for i, y in enumerate(years)
+           for j, s in enumerate(ym["site"].values) if lack[i, j] > 24]
+    small = int(np.where(lack > 24, 0, lack).max())
+    return (f"over a day without a value at {', '.join(big) or 'no site'};\n"
+            f"elsewhere at most {small} h of a year without one")
+
+
+def year_tables(yms) -> str:
+    """The markdown between the year markers: the common-practice ranges and the
+    orderings in every full year of the record under the default transfer."""
+    first = yms[SCHEMES[0]]
+    years = [int(y) for y in first["year"].values]
+    n = len(years)
+    head = " | ".join(f"{SHORT[s]} years met | {SHORT[s]} group min | {SHORT[s]} group max"
+                      for s in SCHEMES)
+    lines = [f"Every full calendar year (UTC) of the demo record, {years[0]}-{years[-1]} "
+             f"(N = {n}), `ustar_transfer =", f"\"{TRANSFERS[0]}\"` (the default), every "
+             "other option at its default; one run over the whole", "record per scheme.",
+             "Years left out (not every hour on the met time axis): "
+             f"{first.attrs['incomplete_years']}.",
+             f"Hours of the full years: {_hour_gaps(first)}.",
+             "Means over the hours with a value.", "",
+             "Ranges: years met out of N, and the span over the years of the group's "
+             "smallest and", "largest annual mean [cm/s] (particles under both schemes: "
+             "the particle scheme does", "not depend on the gas scheme):", "",
+             f"| range [cm/s] | {head} |", "|---|" + "---|" * (3 * len(SCHEMES))]
+    lines += [_range_row(yms, *r) for r in RANGES + PARTICLE_RANGES]
+    lines += ["", "Orderings over every surface (every active receptor, water included): "
+              "years met", "out of N, and the span over the years of the smallest ratio "
+              "of the annual means:", "",
+              "| ordering | " + " | ".join(f"{SHORT[s]} years met | {SHORT[s]} least ratio"
+                                         for s in SCHEMES) + " |",
+              "|---|" + "---|" * (2 * len(SCHEMES))]
+    for high, low in ORDERINGS:
+        cells = []
+        for scheme in SCHEMES:
+            ratio = ordering_by_year(yms[scheme], high, low)
+            missed = [y for y, r in zip(years, ratio) if not r > 1.0]
+            cells += [_years_cell(years, missed), _span(ratio, 2)]
+        lines.append(f"| {high} > {low} | " + " | ".join(cells) + " |")
+    return "\n".join(lines)
+
+
 MARKERS = ("<!-- vd-table -->", "<!-- /vd-table -->")
+YEAR_MARKERS = ("<!-- vd-years -->", "<!-- /vd-years -->")
 
 
-def in_document(text=None) -> str:
+def in_document(text=None, markers=MARKERS) -> str:
     """The text between the markers in docs/methods_dry.md."""
     text = DOC.read_text() if text is None else text
-    return text.split(MARKERS[0], 1)[1].split(MARKERS[1], 1)[0].strip("\n")
+    return text.split(markers[0], 1)[1].split(markers[1], 1)[0].strip("\n")
+
+
+def _replace(text, markers, body, after=None) -> str:
+    """`text` with `body` between `markers`; a block not there yet goes right after the
+    end marker `after`."""
+    if markers[0] not in text:
+        head, tail = text.split(after, 1)
+        return f"{head}{after}\n\n{markers[0]}\n{body}\n{markers[1]}{tail}"
+    head, rest = text.split(markers[0], 1)
+    _, tail = rest.split(markers[1], 1)
+    return f"{head}{markers[0]}\n{body}\n{markers[1]}{tail}"
 
 
 def main():
-    means, active = demo_means()
-    text = DOC.read_text()
-    head, rest = text.split(MARKERS[0], 1)
-    _, tail = rest.split(MARKERS[1], 1)
-    DOC.write_text(f"{head}{MARKERS[0]}\n{tables(means, active)}\n{MARKERS[1]}{tail}")
+    study = demo_study()
+    means, active = demo_means(study=study)
+    text = _replace(DOC.read_text(), MARKERS, tables(means, active))
+    text = _replace(text, YEAR_MARKERS, year_tables(year_means(study)), after=MARKERS[1])
+    DOC.write_text(text)
 
 
 if __name__ == "__main__":

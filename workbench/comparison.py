@@ -102,3 +102,82 @@ def annual_vd_table(velocities_by_scheme: dict, gases=COMPARED_GASES) -> pd.Data
                         rows.append((str(s), str(r), g, scheme, float(mean[i, j]), int(n[i, j])))
     return pd.DataFrame(rows, columns=["site", "receptor", "species", "scheme", "vd_cm_s",
                                        "hours"])
+
+
+def annual_vd_by_year(velocities, names=COMPARED_GASES):
+    """Mean Vd by calendar year (UTC) over each full year of the record [cm s-1].
+
+    A year counts when every one of its hours is on the time axis: the hour-ending
+    stamps from Y-01-01T01:00 to (Y+1)-01-01T00:00 UTC (the hour stamped 00:00 on
+    1 January belongs to the year before, :func:`workbench.periods.assign_hours`).
+    Within a full year the mean takes the hours with a value (a gap in one site's
+    record leaves its other hours in), and ``hours_<name>`` says how many there were.
+
+    Parameters
+    ----------
+    velocities : xarray.Dataset
+        From :func:`workbench.drydep.velocities`: ``vd_<name>`` (site, receptor, time)
+        [m s-1] on an hourly axis ``time`` (end of the hour, UTC), ``active``
+        (site, receptor) optional.
+    names : sequence of str
+        The species whose ``vd_<name>`` is averaged (gases or particles).
+
+    Returns
+    -------
+    xarray.Dataset
+        ``vd_<name>`` (year, site, receptor) [cm s-1], NaN where the receptor is not
+        active; ``hours_<name>`` (year, site, receptor) hours with a value [h];
+        coordinate ``year`` (the full years, ascending); attribute
+        ``incomplete_years``: "YYYY (n of N h)" for each year the axis touches but does
+        not cover.
+
+    Raises
+    ------
+    ValueError
+        When the time axis is not strictly increasing or covers no full year.
+    """
+    import numpy as np
+    import xarray as xr
+
+    from .periods import assign_hours, make_periods
+    t = np.asarray(velocities["time"].values, dtype="datetime64[ns]")
+    if len(t) == 0 or np.any(np.diff(t) <= np.timedelta64(0, "ns")):
+        raise ValueError("annual_vd_by_year needs a strictly increasing time axis "
+                         "(hour-ending stamps, UTC)")
+    hour = np.timedelta64(1, "h")
+    periods = make_periods(t[0] - hour, t[-1], "year")
+    where = assign_hours(t, periods, label="end")
+    present = np.bincount(where[where >= 0], minlength=len(periods))
+    needed = periods["hours"].to_numpy().round().astype(int)
+    full = present == needed
+    years = periods["year"].to_numpy()
+    incomplete = [f"{y} ({n} of {m} h)" for y, n, m, f in zip(years, present, needed, full)
+                  if not f]
+    if not full.any():
+        raise ValueError("annual_vd_by_year: the time axis "
+                         f"{str(t[0])[:16]} to {str(t[-1])[:16]} covers no full calendar "
+                         f"year (UTC); years touched: {', '.join(incomplete)}")
+    keep = np.flatnonzero((where >= 0) & full[np.clip(where, 0, None)])
+    # the full years are runs of consecutive hours: sums over each run (no loop over hours)
+    label = years[where[keep]]
+    first = np.flatnonzero(np.r_[True, label[1:] != label[:-1]])
+    active = velocities["active"] if "active" in velocities else True
+    out = {}
+    for name in names:
+        vd = velocities[f"vd_{name}"].where(active).transpose(..., "time")
+        values = np.asarray(vd.values, dtype=float)[..., keep]
+        valid = np.isfinite(values)
+        total = np.add.reduceat(np.where(valid, values, 0.0), first, axis=-1)
+        count = np.add.reduceat(valid, first, axis=-1)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            mean = np.where(count > 0, total / count, np.nan) * 100.0
+        dims = vd.dims[:-1]
+        coords = {d: vd[d].values for d in dims if d in vd.coords}
+        coords["year"] = label[first]
+        mean = xr.DataArray(mean, dims=dims + ("year",), coords=coords,
+                            attrs={"units": "cm s-1", "long_name": f"annual mean Vd of {name}"})
+        hours = xr.DataArray(count, dims=dims + ("year",), coords=coords,
+                             attrs={"units": "h", "long_name": "hours with a value"})
+        out[f"vd_{name}"] = mean.transpose("year", ...)
+        out[f"hours_{name}"] = hours.transpose("year", ...)
+    return xr.Dataset(out, attrs={"incomplete_years": "; ".join(incomplete)})
