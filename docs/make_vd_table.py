@@ -258,8 +258,9 @@ def _hour_gaps(ym) -> str:
     big = [f"{s} {y} ({int(lack[i, j])} h)" for i, y in enumerate(years)
            for j, s in enumerate(ym["site"].values) if lack[i, j] > 24]
     small = int(np.where(lack > 24, 0, lack).max())
-    return (f"over a day without a value at {', '.join(big) or 'no site'};\n"
-            f"elsewhere at most {small} h of a year without one")
+    rest = (f"elsewhere at most {small} h of a year without one" if small else
+            "elsewhere every hour has one")
+    return f"over a day without a value at {', '.join(big) or 'no site'};\n{rest}"
 
 
 def year_tables(yms) -> str:

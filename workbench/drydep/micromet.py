@@ -153,7 +153,10 @@ def surface_layer(opt, block, surf, met_surf, receptors, st, site) -> dict:
         alpha_r = rec([eb.PT_ALPHA[r] for r in receptors])
         h_pt_r = eb.sensible_heat_flux(eb.net_radiation(k_down, temp, cloud, alb_r), temp, pres,
                                        alpha_r)
-        theta_r = -h_m / (rho * CP_DRY_AIR * us_m)
+        # calm hours (u* = 0 at the mast, measured or from a wind of 0): the mast's own
+        # temperature scale, not 0/0; the receptor's u* then sits on its floor (flagged)
+        theta_r = np.where(us_m > 0, -h_m / (rho * CP_DRY_AIR * np.where(us_m > 0, us_m, 1.0)),
+                           theta_m)
         h_r = np.where(has_h, h_meas, np.where(day, h_pt_r, -rho * CP_DRY_AIR * us_r * theta_r))
         h_r = np.where(water, 0.0, h_r)
         h_r = np.where(np.isnan(us_r), np.nan, h_r)

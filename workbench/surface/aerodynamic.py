@@ -228,11 +228,16 @@ def transfer_ustar_drag_law(ustar_met, z0_met, z0, coriolis):
     in Workshop on Micrometeorology, AMS, 177-216; Garratt (1992), Eq. (3.50) (from
     memory).
     """
-    kg = ustar_met * _drag_law_denominator(ustar_met, z0_met, coriolis)   # kappa G
-    us = ustar_met
+    # a calm hour (u* = 0 at the mast) has no geostrophic wind to carry down: 0 here
+    # (the receptor's u* floor applies later), not 0 x inf
+    ustar_met = np.asarray(ustar_met, float)
+    calm = ustar_met == 0.0
+    u_in = np.where(calm, 1.0, ustar_met)
+    kg = u_in * _drag_law_denominator(u_in, z0_met, coriolis)   # kappa G
+    us = u_in
     for _ in range(DRAG_LAW_ITERATIONS):
         us = kg / _drag_law_denominator(us, z0, coriolis)
-    return us
+    return np.where(calm, 0.0, us)
 
 
 def apply_floor(x, floor):
