@@ -164,13 +164,43 @@ def _early_cluster(sc, workers, scheduler):
 
 
 def cmd_run(args) -> int:
-    written, _, _ = run_scenario(args.scenario, args.out, args.overwrite, args.quiet,
-                                 resolution=args.resolution, workers=args.workers,
-                                 scheduler=args.scheduler, block_sites=args.block_sites)
+    written, result, study = run_scenario(args.scenario, args.out, args.overwrite, args.quiet,
+                                          resolution=args.resolution, workers=args.workers,
+                                          scheduler=args.scheduler, block_sites=args.block_sites)
     print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
     for name in written:
         print(f"  {name}")
+    for line in status_lines(result.table, study.inputs):
+        print(line)
     return 0
+
+
+def status_lines(table, inputs) -> list[str]:
+    """What a run's budgets hold, for the console: per element the status counts of the
+    total budget of each site, receptor and period; with the coverage warnings when
+    every one is missing (:func:`workbench.preflight.coverage_notes`)."""
+    from .preflight import coverage_notes
+    t = table[(table["period"].astype(str) != "span") & (table["species"] == "all")
+              & (table["pathway"] == "total")]
+    if t.empty:
+        return []
+    parts = []
+    els = sorted(t["element"].astype(str).unique(), key=lambda e: ("S", "N").index(e)
+                 if e in ("S", "N") else 2)
+    for el in els:
+        g = t[t["element"].astype(str) == el]
+        counts = g["status"].astype(str).value_counts()
+        order = ["complete", "filled", "partial", "flagged", "missing"]
+        keys = [k for k in order if k in counts] + [k for k in counts.index if k not in order]
+        parts.append(f"{el}: " + ", ".join(f"{int(counts[k])} {k}" for k in keys))
+    lines = ["budgets per site, receptor and period (total, summary.csv): " + "; ".join(parts)]
+    if (t["status"].astype(str) == "missing").all():
+        start = t["period_start"].min() if "period_start" in t else None
+        end = t["period_end"].max() if "period_end" in t else None
+        lines.append("warning: every budget is missing")
+        if start is not None and end is not None:
+            lines.extend("  " + c for c in coverage_notes(inputs, start, end))
+    return lines
 
 
 def cmd_demo(args) -> int:

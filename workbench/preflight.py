@@ -43,8 +43,70 @@ class Prepared:
         if fixed:
             lines.append("fixed velocities [cm/s]: " + ", ".join(f"{k} {v:g}" for k, v in
                                                               fixed.items()))
-        lines.append("everything a run uses was read and checked: the scenario can be run")
+        cover = coverage_notes(self.study.inputs, p["start"].iloc[0], p["end"].iloc[-1])
+        lines.extend(cover)
+        if cover and all(c.startswith("warning") for c in cover) and len(cover) == len(
+                input_spans(self.study.inputs)):
+            lines.append("everything a run uses was read and checked: the scenario can be "
+                         "run, but every budget would be missing (above)")
+        else:
+            lines.append("everything a run uses was read and checked: the scenario can be run")
         return "\n".join(lines)
+
+
+#: Days by which the reporting span may reach beyond an input's span before it is said
+#: (a weekly sample's edge is no gap) [d].
+COVERAGE_SLACK_DAYS = 31
+
+
+def input_spans(inputs) -> dict:
+    """The span of each time-resolved input, ``{role: (first, last)}`` as UTC
+    datetime64: sample and air periods from the first start to the last end, met from
+    the start of its first hour to the end of its last."""
+    spans = {}
+    for role, ds in (("precipitation", inputs.precipitation), ("air", inputs.air)):
+        if ds is not None and ds.sizes.get("sample" if role == "precipitation" else "period"):
+            spans[role] = (ds["start"].values.min(), ds["end"].values.max())
+    if inputs.met is not None and inputs.met.sizes.get("time"):
+        t = inputs.met["time"].values
+        spans["met"] = (t[0] - np.timedelta64(1, "h"), t[-1])
+    return spans
+
+
+def coverage_notes(inputs, start, end) -> list[str]:
+    """Lines saying where the reporting span [start, end) reaches beyond the inputs.
+
+    An input with no time inside the span gives ``warning: ...`` (every budget part it
+    feeds will be missing); one whose span starts more than :data:`COVERAGE_SLACK_DAYS`
+    after `start` or ends that much before `end` gives ``note: ...`` (the periods
+    outside it lack it).  Nothing when the inputs cover the span.
+
+    Parameters
+    ----------
+    inputs : workbench.io.Inputs
+    start, end : datetime-like
+        The reporting span (UTC; end exclusive).
+    """
+    s, e = np.datetime64(start, "ns"), np.datetime64(end, "ns")
+    slack = np.timedelta64(COVERAGE_SLACK_DAYS, "D")
+    day = lambda t: str(np.datetime64(t, "m"))[:16].replace("T00:00", "")   # noqa: E731
+    out = []
+    for role, (a, b) in input_spans(inputs).items():
+        a, b = np.datetime64(a, "ns"), np.datetime64(b, "ns")
+        if b <= s or a >= e:
+            out.append(f"warning: the reporting span {day(s)} to {day(e)} holds none of the "
+                       f"{role} ({day(a)} to {day(b)} UTC): every budget part it feeds "
+                       "will be missing")
+            continue
+        gaps = []
+        if a - s > slack:
+            gaps.append(f"before {day(a)}")
+        if e - b > slack:
+            gaps.append(f"after {day(b)}")
+        if gaps:
+            out.append(f"note: the {role} covers {day(a)} to {day(b)} UTC: periods "
+                       f"{' and '.join(gaps)} lack it")
+    return out
 
 
 def _line(scenario, section, key=None):
