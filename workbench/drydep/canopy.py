@@ -18,7 +18,7 @@ def hourly_lai(surf, receptors, times):
     The catalogue's monthly LAI where given, else the class's default range
     (:data:`workbench.landuse.DEFAULT_LAI`) by :func:`workbench.landuse.seasonal_lai`.
     """
-    month = seasons.calendar_month(times)
+    month = seasons.calendar_month(times - HALF_HOUR)     # the hour's middle
     lat = np.asarray(surf["latitude"].values, float)[:, None, None]
     lo = np.array([landuse.DEFAULT_LAI[r][0] for r in receptors])[None, :, None]
     hi = np.array([landuse.DEFAULT_LAI[r][1] for r in receptors])[None, :, None]
@@ -59,7 +59,7 @@ def lai_season(surf, receptors, times):
         lai = np.where(np.isnan(given), lai, given)
     by_month = seasons.category_from_month(months + 0 * lat.astype(int), lat)
     cat_m, src_m = seasons.category_from_lai(lai, np.broadcast_to(by_month, lai.shape))
-    idx = seasons.calendar_month(times) - 1
+    idx = seasons.calendar_month(times - HALF_HOUR) - 1
     return cat_m[:, :, idx], src_m[:, :, idx]
 
 

@@ -28,6 +28,7 @@ import numpy as np
 import xarray as xr
 
 from .. import landuse
+from ..constants import HALF_HOUR
 from ..optional import require
 from ..threads import threads_here
 from .. import graph as _graph
@@ -194,7 +195,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         dew_rule = _wetness.resolve_dew_rule(opt.dew_rule, _gas.get_scheme(opt.gas_scheme))
         # --- 5. season and wetness -------------------------------------------------------------
         times = block["time"].values
-        month = _seasons.calendar_month(times)[None, None, :]
+        mid = times - HALF_HOUR            # the month and year of the hour's middle
+        month = _seasons.calendar_month(mid)[None, None, :]
         if opt.seasonal_category is not None:
             cat = _seasons.category_override(month, opt.seasonal_category) + 0.0 * temp
             cat_src = 3.0 + 0.0 * cat
@@ -210,7 +212,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                                       axis=1) > 0.5
             else:  # the whole record is here
                 seen = _seasons.autumn_frost_seen_array(
-                    by_month, temp, times.astype("datetime64[Y]").astype(np.int64)[None, None, :])
+                    by_month, temp, mid.astype("datetime64[Y]").astype(np.int64)[None, None, :])
             cat, cat_src = _seasons.category_from_state(base, seen, temp,
                                                         snow if "snow_cover" in block else None)
             if opt.season_rule == "surface_state":

@@ -24,7 +24,7 @@ from __future__ import annotations
 import numpy as np
 import xarray as xr
 
-from ..constants import OBLIQUITY, ZERO_CELSIUS
+from ..constants import HALF_HOUR, OBLIQUITY, ZERO_CELSIUS
 from ..surface._array import where
 
 #: Category by calendar month (index 0 = January), northern mid-latitudes (ours).
@@ -101,7 +101,7 @@ def autumn_frost_seen(time, latitude, temperature, base=None):
         north, Mar-May in the south) lies within one calendar year, so the count of
         frost hours restarts each year.
     """
-    month, year = _month_and_year(time)
+    month, year = _month_and_year(time)      # of each hour's middle
     if base is None:
         base = category_from_month(month, latitude)
     autumn = base == AUTUMN
@@ -110,7 +110,7 @@ def autumn_frost_seen(time, latitude, temperature, base=None):
         seen = frost.copy(data=_seen_by_year(frost.values, frost.get_axis_num("time"),
                                              year.values))
     else:
-        seen = frost.astype(float).groupby(time.dt.year).cumsum("time") > 0
+        seen = frost.astype(float).groupby((time - HALF_HOUR).dt.year).cumsum("time") > 0
     return (seen & autumn).drop_vars("year", errors="ignore")
 
 
@@ -159,7 +159,9 @@ def calendar_month(times):
 
 
 def _month_and_year(time):
-    """``time.dt.month`` and ``time.dt.year`` (the latter None when lazy or irregular).
+    """Month and year of the middle of each hour of an hour-ending axis (the hour
+    ending at 00:00 on 1 January belongs to December): ``.dt.month`` and ``.dt.year``
+    of ``time - 30 min`` (the year None when lazy or irregular).
 
     Parameters
     ----------
@@ -173,11 +175,12 @@ def _month_and_year(time):
     year : DataArray of int or None
         Calendar year. [year]
     """
-    t = time.values if time.chunks is None else None
+    mid = time - HALF_HOUR
+    t = mid.values if mid.chunks is None else None
     if (t is None or time.dims != ("time",) or not np.issubdtype(t.dtype, np.datetime64)
             or np.isnat(t).any()):
-        return time.dt.month, (None if time.chunks is not None or time.dims != ("time",)
-                               else time.dt.year)
+        return mid.dt.month, (None if time.chunks is not None or time.dims != ("time",)
+                              else mid.dt.year)
     coords = {"time": time["time"]} if "time" in time.coords else None
     month = xr.DataArray(calendar_month(t), dims=("time",), coords=coords, name="month")
     year = xr.DataArray(t.astype("datetime64[Y]").astype(np.int64) + 1970, dims=("time",),
@@ -272,9 +275,9 @@ def seasonal_category(time, latitude, temperature, snow_cover=None, override=Non
         (site, time) code, see :data:`SOURCE`.
     """
     if override is not None:
-        cat = category_override(time.dt.month, override) + 0.0 * temperature
+        cat = category_override((time - HALF_HOUR).dt.month, override) + 0.0 * temperature
         return cat, 3.0 + 0.0 * cat
-    base = category_from_month(time.dt.month, latitude) + 0.0 * temperature
+    base = category_from_month((time - HALF_HOUR).dt.month, latitude) + 0.0 * temperature
     seen = autumn_frost_seen(time, latitude, temperature)
     return category_from_state(base, seen, temperature, snow_cover)
 
