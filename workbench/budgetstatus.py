@@ -16,6 +16,8 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
+from .wet.qa import falls_short
+
 
 def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
                 options):
@@ -124,7 +126,9 @@ def wet_component(w, sp, options, w_status, w_fail):
     if "ion_valid_precip_fraction" in v and sp in list(w["ion"].values):
         frac = w["ion_valid_precip_fraction"].sel(ion=sp).transpose("site", "period").values
         need = json.loads(w.attrs.get("wet_options", "{}")).get("min_valid_precip_fraction", 0.7)
-        low_ion = np.isfinite(frac) & (frac < need) & (frac > 0) & (w_status != "missing")
+        # equal to the minimum (to rounding) passes, as the wet chain's own criteria
+        low_ion = (np.isfinite(frac) & falls_short(frac, need) & (frac > 0)
+                   & (w_status != "missing"))
         pct = np.round(100 * np.nan_to_num(frac), 1).astype(str)
         note = np.where(low_ion, join_notes(note, np.char.add(np.char.add(
             f"{sp} valid for ", pct), " % of the precipitation only")), note)
