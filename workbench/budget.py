@@ -174,12 +174,20 @@ def annual_factor(periods: pd.DataFrame) -> np.ndarray:
     """Factor turning a period's deposition into a yearly rate [1].
 
     Hours in the year of the period's label (8784 in leap years) over the period's
-    hours; 1 for a calendar year.
+    hours; 1 for a calendar year and for a hydrological year (a whole year itself,
+    whether it holds 29 February or not; its label names the year it ends in, which
+    need not be the year of that February when it starts in February).
     """
     year = np.where(periods["year"].to_numpy() > 0, periods["year"].to_numpy(),
                     pd.DatetimeIndex(periods["start"]).year.to_numpy())
     leap = ((year % 4 == 0) & (year % 100 != 0)) | (year % 400 == 0)
-    return np.where(leap, 8784.0, 8760.0) / periods["hours"].to_numpy(dtype=float)
+    factor = np.where(leap, 8784.0, 8760.0) / periods["hours"].to_numpy(dtype=float)
+    start = pd.DatetimeIndex(periods["start"])
+    whole_year = ((start + pd.DateOffset(years=1)).to_numpy("datetime64[ns]")
+                  == periods["end"].to_numpy().astype("datetime64[ns]"))   # not clipped
+    if "kind" in periods:
+        whole_year &= periods["kind"].isin(["year", "hydro_year"]).to_numpy()
+    return np.where(whole_year, 1.0, factor)
 
 
 # ------------------------------------------------------------------------------ assembly

@@ -1,0 +1,134 @@
+"""How a sample's rain and deposition are shared among months, seasons and years, and
+what the completeness of a period makes of dry weeks, rows without chemistry and absent
+rows.
+
+Expected values are hand arithmetic from the definitions of docs/methods_wet.md
+(section 4: a straddling sample is shared by its share of hours, UTC; section 5:
+D = PWM x P; section 7: gauge and coverage fractions) and the Gregorian calendar
+(366 days in 2024, 29 days in February 2024). Molar masses of S and N: IUPAC standard
+atomic weights (abridged), S 32.06 and N 14.007 g/mol (from memory).
+"""
+import numpy as np
+import pandas as pd
+import pytest
+from wet.wet_samples import make_samples, week
+
+from workbench import periods as P
+from workbench.budget import annual_factor
+from workbench.wet import screen, wet_deposition
+
+IONS = ("SO4", "NO3", "NH4")
+
+
+def _bal(so4, no3, nh4):
+    """Composition whose free acidity closes the balance: H+ = 2 SO4 + NO3 - NH4 (umol/L)."""
+    return dict(SO4=so4, NO3=no3, NH4=nh4, pH=-np.log10((2 * so4 + no3 - nh4) * 1e-6))
+
+
+def test_sample_across_new_year_is_shared_by_hours_and_years_add_up():
+    # Weekly samples changed on Tuesdays at 09:00 UTC, 1 Dec 2020 - 4 Jan 2022; the one of
+    # 29 Dec 2020 09:00 - 5 Jan 2021 09:00 (14 mm, SO4 30 umol/L) has 63 of its 168 hours
+    # in 2020 (29 Dec 09:00 - 1 Jan 00:00 = 2 d 15 h) and 105 in 2021.
+    rows, t, k = [], pd.Timestamp("2020-12-01T09:00"), 0
+    while t < pd.Timestamp("2022-01-04"):
+        depth = 14.0 if t == pd.Timestamp("2020-12-29T09:00") else 3.0 + k % 5
+        so4 = 30.0 if depth == 14.0 else 10.0 + k % 7
+        rows.append(dict(start=str(t), end=str(t + pd.Timedelta(days=7)), gauge_depth=depth,
+                         **_bal(so4, 20.0, 10.0)))
+        t, k = t + pd.Timedelta(days=7), k + 1
+    wet = wet_deposition(screen(make_samples(rows, ions=IONS)),
+                         P.make_periods("2020-01-01", "2023-01-01", "year"))
+    # 2020: the four December weeks before it (k = 0..3: 3, 4, 5, 6 mm) + 14 x 63/168
+    p2020 = 3 + 4 + 5 + 6 + 14 * 63 / 168
+    assert wet["precipitation"].sel(period="2020").item() == pytest.approx(p2020)   # 23.25 mm
+    d2020 = (3 * 10 + 4 * 11 + 5 * 12 + 6 * 13 + 14 * 63 / 168 * 30) * 1e-6     # mol m-2
+    assert wet["dep_SO4"].sel(period="2020").item() == pytest.approx(d2020)
+    # every sample valid: the years together hold exactly the samples' rain and sulfate
+    # (the last week, 28 Dec 2021 09:00 - 4 Jan 2022 09:00, gives 81 of its 168 h to 2022)
+    total_p = sum(r["gauge_depth"] for r in rows)
+    total_d = sum(r["gauge_depth"] * r["SO4"] * 1e-6 for r in rows)
+    assert np.nansum(wet["precipitation"].values) == pytest.approx(total_p, rel=1e-12)
+    assert np.nansum(wet["dep_SO4"].values) == pytest.approx(total_d, rel=1e-12)
+    assert np.nansum(wet["dep_SO4_kg_ha"].values) == pytest.approx(total_d * 32.06e-3 * 1e4,
+                                                                   rel=1e-4)
+    # 2021 is wholly covered (every one of its 8760 h); 2020 and 2022 are not
+    assert wet["coverage_fraction"].sel(period="2021").item() == pytest.approx(1.0)
+    assert wet["status"].sel(period="2021").item() == "complete"
+    assert wet["coverage_fraction"].sel(period="2020").item() == pytest.approx(
+        (30 * 24 + 15) / 8784)                                 # 1 Dec 09:00 - 1 Jan; leap
+    # months: the same sample gives 63/168 of its rain to December, 105/168 to January
+    m = wet_deposition(screen(make_samples(rows, ions=IONS)),
+                       P.make_periods("2020-12-01", "2021-02-01", "month"))
+    assert m["precipitation"].sel(period="2020-12").item() == pytest.approx(p2020)
+    # January: 105 h of it, the weeks of 5, 12, 19 Jan (k = 5, 6, 7: 3, 4, 5 mm) and
+    # 135 of 168 h of the week of 26 Jan 09:00 - 2 Feb 09:00 (k = 8: 6 mm)
+    jan = 14 * 105 / 168 + 3 + 4 + 5 + 6 * 135 / 168
+    assert m["precipitation"].sel(period="2021-01").item() == pytest.approx(jan)
+
+
+def test_leap_day_sample_and_a_sample_across_the_end_of_february_2024():
+    # 28 Feb 12:00 - 1 Mar 12:00 2024 (48 h, 8 mm): 36 h in February (28th 12 h + 29th),
+    # 12 h in March; by season the same split, DJF 2024 / MAM 2024
+    rows = [dict(start="2024-02-28T12:00", end="2024-03-01T12:00", gauge_depth=8.0,
+                 **_bal(20, 20, 10))]
+    sc = screen(make_samples(rows, ions=IONS))
+    m = wet_deposition(sc, "month")
+    assert m["period_hours"].values.tolist() == [29 * 24, 31 * 24]
+    assert m["precipitation"].values[0].tolist() == pytest.approx([6.0, 2.0])
+    s = wet_deposition(sc, "season")
+    assert s["period"].values.tolist() == ["2024-DJF", "2024-MAM"]
+    assert s["precipitation"].values[0].tolist() == pytest.approx([6.0, 2.0])
+    y = wet_deposition(sc, "year")
+    assert y["period_hours"].item() == 366 * 24
+    assert y["coverage_fraction"].item() == pytest.approx(48 / 8784)
+
+
+@pytest.mark.parametrize("first_month", [1, 2, 3, 10])
+def test_yearly_rate_of_a_whole_hydrological_year_is_its_deposition(first_month):
+    # a hydrological year is a year: its deposition per year is its deposition, whether
+    # it holds 29 February (366 days) or not; with a first month of February the year
+    # "HY2025" runs 1 Feb 2024 - 1 Feb 2025 and holds 29 Feb 2024
+    p = P.make_periods("2023-03-01", "2025-06-01", "hydro_year", hydro_start_month=first_month)
+    np.testing.assert_array_equal(annual_factor(p), np.ones(len(p)))
+    # a month keeps the length of its year: February 2024 -> 8784 / 696
+    months = P.make_periods("2024-02-01", "2024-03-01", "month")
+    assert annual_factor(months).tolist() == pytest.approx([8784 / 696])
+
+
+def test_dry_week_row_without_chemistry_and_absent_row_count_differently():
+    # Four weeks from Tue 1 June 2021 (a 28-day custom period). Week 4 differs:
+    # dry (0 mm): counted in the gauge record and in the coverage;
+    # gauge 6 mm but no chemistry: gauge yes, coverage no; the rain counts in P;
+    # no row at all: neither.
+    def run(last):
+        rows = []
+        for k in range(3):
+            s, e = week(pd.Timestamp("2021-06-01") + pd.Timedelta(days=7 * k))
+            rows.append(dict(start=s, end=e, gauge_depth=10.0, **_bal(20, 20, 10)))
+        if last is not None:
+            s, e = week("2021-06-22")
+            rows.append(dict(start=s, end=e, **last))
+        per = P.make_periods(None, None, "custom", ranges=[("2021-06-01", "2021-06-29", "4wk")])
+        return wet_deposition(screen(make_samples(rows, ions=IONS)), per).isel(site=0, period=0)
+    dry, nochem, absent = run(dict(gauge_depth=0.0)), run(dict(gauge_depth=6.0)), run(None)
+    assert (dry["gauge_fraction"].item(), dry["coverage_fraction"].item()) == (1.0, 1.0)
+    assert (nochem["gauge_fraction"].item(), nochem["coverage_fraction"].item()) == (1.0, 0.75)
+    assert (absent["gauge_fraction"].item(), absent["coverage_fraction"].item()) == (0.75, 0.75)
+    assert dry["status"].item() == "complete"
+    assert nochem["status"].item() == absent["status"].item() == "flagged"
+    # rain: 30 mm, 36 mm (6 mm without chemistry still falls), 30 mm over 3/4 of the time
+    assert [dry["precipitation"].item(), nochem["precipitation"].item(),
+            absent["precipitation"].item()] == pytest.approx([30.0, 36.0, 30.0])
+    assert nochem["valid_precip_fraction"].item() == pytest.approx(30 / 36)
+    # flux: PWM 20 umol/L x the period's rain (the valid chemistry stands for all of it)
+    assert nochem["dep_SO4"].item() == pytest.approx(20e-6 * 36)
+    assert "sample coverage below minimum" in nochem["completeness_reasons"].item()
+    assert "gauge record below minimum" in absent["completeness_reasons"].item()
+    assert "gauge record" not in nochem["completeness_reasons"].item()
+
+
+def test_yearly_rate_of_a_clipped_year_still_scales_to_its_year():
+    # a calendar year cut to 1 Mar - 1 Jan 2024 (306 days) scales by 366 / 306
+    p = P.make_periods("2024-03-01", "2025-01-01", "year", clip=True)
+    assert p["hours"].tolist() == [306 * 24]
+    assert annual_factor(p).tolist() == pytest.approx([366 / 306])
