@@ -132,3 +132,57 @@ def test_yearly_rate_of_a_clipped_year_still_scales_to_its_year():
     p = P.make_periods("2024-03-01", "2025-01-01", "year", clip=True)
     assert p["hours"].tolist() == [306 * 24]
     assert annual_factor(p).tolist() == pytest.approx([366 / 306])
+
+
+PRECIP_AS_ELEMENT = """\
+site,start,end,gauge_depth [mm],sample_volume [mL],collector_area [cm2],pH,SO4_as_S [mg/L],NO3_as_N [mg/L],NH4_as_N [mg/L]
+beta,2021-06-01T00:00,2021-06-08T00:00,10,180,200,4.0,1.0,1.0,0.5
+beta,2021-06-08T00:00,2021-06-15T00:00,5,95,200,5.0,<0.1,0.1,<0.02
+"""
+
+
+@pytest.mark.parametrize("treatment, factor", [("half", 0.5), ("limit", 1.0), ("zero", 0.0)])
+def test_mg_element_per_litre_times_mm_is_a_hundredth_of_kg_per_ha(tmp_path, treatment,
+                                                                    factor):
+    # 1 mg/L x 1 mm = 1 g/m3 x 1e-3 m = 1 mg/m2 = 0.01 kg/ha (of the element the column is
+    # written as); censored values enter as factor x limit for S and N alike
+    # (docs/methods_wet.md 3.1). 180 mL over 200 cm2 = 9 mm in the collector.
+    from tiny_inputs import SITES
+
+    from workbench.io import read_precipitation, read_sites
+    from workbench.wet import WetOptions
+    (tmp_path / "sites.toml").write_text(SITES)
+    (tmp_path / "p.csv").write_text(PRECIP_AS_ELEMENT)
+    samples, _ = read_precipitation(tmp_path / "p.csv", read_sites(tmp_path / "sites.toml"))
+    assert samples["sample_depth"].values.tolist() == pytest.approx([9.0, 4.75])
+    opt = WetOptions(detection_limit=treatment)
+    sc = screen(samples, opt)
+    assert sc["status"].values.tolist() == ["used", "used"]
+    per = P.make_periods(None, None, "custom", ranges=[("2021-06-01", "2021-06-15", "2wk")])
+    wet = wet_deposition(sc, per, opt).isel(site=0, period=0)
+    assert wet["dep_SO4_kg_ha"].item() == pytest.approx((1.0 * 10 + factor * 0.1 * 5) * 0.01,
+                                                        rel=1e-12)
+    assert wet["dep_NO3_kg_ha"].item() == pytest.approx((1.0 * 10 + 0.1 * 5) * 0.01, rel=1e-12)
+    assert wet["dep_NH4_kg_ha"].item() == pytest.approx((0.5 * 10 + factor * 0.02 * 5) * 0.01,
+                                                        rel=1e-12)
+    assert wet["ion_n_censored"].sel(ion=["SO4", "NO3", "NH4"]).values.tolist() == [1, 0, 1]
+
+
+def test_labels_with_summer_and_winter_offsets_across_the_clock_change(tmp_path):
+    # Local labels with their offsets: 25 Oct 2020 09:00+02:00 (07:00 UTC) to 1 Nov 2020
+    # 09:00+01:00 (08:00 UTC) is 169 h, not 168; 161 of them fall in October (to 1 Nov
+    # 00:00 UTC). Rows are given out of order; the reader and the chain do not mind.
+    from tiny_inputs import SITES
+
+    from workbench.io import read_precipitation, read_sites
+    text = ("site,start,end,gauge_depth [mm],pH,SO4 [umol/L],NO3 [umol/L],NH4 [umol/L]\n"
+            "alpha,2020-11-01T09:00+01:00,2020-11-08T09:00+01:00,7,4.5,10,11.6,10\n"
+            "alpha,2020-10-25T09:00+02:00,2020-11-01T09:00+01:00,16.9,4.5,10,11.6,10\n")
+    (tmp_path / "sites.toml").write_text(SITES)
+    (tmp_path / "p.csv").write_text(text)
+    samples, _ = read_precipitation(tmp_path / "p.csv", read_sites(tmp_path / "sites.toml"))
+    hours = (samples["end"] - samples["start"]).values / np.timedelta64(1, "h")
+    assert hours.tolist() == [168.0, 169.0]
+    wet = wet_deposition(screen(samples), "month")
+    assert wet["precipitation"].sel(period="2020-10").item() == pytest.approx(16.9 * 161 / 169)
+    assert wet["precipitation"].sel(period="2020-11").item() == pytest.approx(16.9 * 8 / 169 + 7)
