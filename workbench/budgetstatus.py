@@ -16,7 +16,7 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .wet.qa import falls_short
+from .wet.qa import exceeds, falls_short
 
 
 def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
@@ -42,10 +42,12 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
         Why a component is missing or flagged ('' otherwise).
     """
     vd_any = np.nan_to_num(vd_cov) + np.nan_to_num(filled_share)
-    low_flux = flux_cov < options.min_air_coverage
-    fails = (coverage < options.min_air_coverage) | ~season_ok | low_flux
+    # a share equal to its bound (to rounding) is inside it: 10 % filled is not "more
+    # than 10 %" although 1 - 0.9 is 0.09999999999999998 (workbench.wet.qa)
+    low_flux = falls_short(flux_cov, options.min_air_coverage)
+    fails = falls_short(coverage, options.min_air_coverage) | ~season_ok | low_flux
     status = np.full(coverage.shape, "complete", dtype=object)
-    status = np.where(filled_share > 1 - options.min_vd_coverage, "filled", status)
+    status = np.where(exceeds(filled_share, 1 - options.min_vd_coverage), "filled", status)
     status = np.where(fails, "flagged", status)
     note = np.full(coverage.shape, "", dtype=object)
     note = np.where(low_flux & (flux_cov > 0) & (flux_cov < coverage),

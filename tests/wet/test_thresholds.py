@@ -125,3 +125,21 @@ def test_budget_per_ion_fraction_equal_to_its_minimum_is_not_flagged():
                                        status, wet["completeness_failed"].values)
     assert st.tolist() == [["complete"]] and not fails.any()
     assert note.tolist() == [[""]]
+
+
+def test_budget_dry_component_with_exactly_a_tenth_filled_vd_is_not_filled():
+    # docs/budget.md: "more than 10 % filled Vd (min_vd_coverage = 0.9) has status
+    # filled"; 72 filled of the 720 hours of June is 10 %, not more (1 - 0.9 is
+    # 0.09999999999999998 in binary); 73 hours is more
+    from workbench.budget import BudgetOptions
+    from workbench.budgetstatus import dry_status
+    share = np.array([72 / 720, 73 / 720])
+    ones = np.ones(2)
+    status, fails, _ = dry_status(ones, 1 - share, share, ones, np.ones(2, bool),
+                                  np.ones(2, bool), False, BudgetOptions())
+    assert status.tolist() == ["complete", "filled"] and not fails.any()
+    # coverage equal to min_air_coverage (0.75: 540 of 720 h) passes
+    cov = np.array([540 / 720, 539 / 720])
+    status, fails, _ = dry_status(cov, ones, 0 * ones, cov, np.ones(2, bool),
+                                  np.ones(2, bool), False, BudgetOptions())
+    assert status.tolist() == ["complete", "flagged"] and fails.tolist() == [False, True]
