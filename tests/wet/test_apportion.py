@@ -220,3 +220,35 @@ def test_row_order_changes_nothing():
             else:
                 np.testing.assert_array_equal(wa[v].values, wb[v].values, err_msg=v)
         assert wa.attrs == wb.attrs
+
+
+def test_nss_sulfate_resting_on_a_tracer_measured_in_few_samples_is_flagged():
+    # Four June weeks of 10 mm, SO4 30 umol/L in each; Na measured only in the first
+    # (200 umol/L, a storm). The Na PWM (200) stands for all 40 mm, so
+    # nss SO4 = 30 - 0.0605 x 200 = 17.9 umol/L (Keene et al. 1986 ratio, as in
+    # test_seasalt.py) rests on one sample: Na is valid for 10 of 40 mm (25 %) < 70 %.
+    # The budget's wet SO4 on the nss basis says so, as it does for SO4 itself.
+    from workbench.budget import BudgetOptions
+    from workbench.budgetstatus import wet_component
+    rows = []
+    for k in range(4):
+        s, e = week(pd.Timestamp("2021-06-01") + pd.Timedelta(days=7 * k))
+        salt = 200.0 if k == 0 else np.nan              # NaCl: the balance still closes
+        chem = dict(_bal(30, 20, 10), Na=salt, Cl=salt)
+        rows.append(dict(start=s, end=e, gauge_depth=10.0, **chem))
+    per = P.make_periods(None, None, "custom", ranges=[("2021-06-01", "2021-06-29", "4wk")])
+    wet = wet_deposition(screen(make_samples(rows, ions=IONS + ("Na", "Cl"))), per)
+    assert wet["pwm_nssSO4"].item() * 1000 == pytest.approx(30 - 0.121 / 2 * 200)
+    assert wet["ion_valid_precip_fraction"].sel(ion="Na").item() == pytest.approx(0.25)
+    status = wet["status"].values.astype(object)
+    fail = wet["completeness_failed"].values
+    assert status.tolist() == [["complete"]]
+    st, note, dep, fails = wet_component(wet, "SO4", BudgetOptions(sulfate_basis="nss"),
+                                         status, fail)
+    assert st.tolist() == [["flagged"]] and fails.tolist() == [[True]]
+    assert "Na valid for 25.0 % of the precipitation only" in note.item()
+    assert dep.item() == pytest.approx((30 - 0.121 / 2 * 200) * 1e-6 * 40)
+    # on the total basis Na plays no part: complete
+    st, note, _, fails = wet_component(wet, "SO4", BudgetOptions(sulfate_basis="total"),
+                                       status, fail)
+    assert st.tolist() == [["complete"]] and not fails.any()
