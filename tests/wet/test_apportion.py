@@ -90,6 +90,10 @@ def test_yearly_rate_of_a_whole_hydrological_year_is_its_deposition(first_month)
     # "HY2025" runs 1 Feb 2024 - 1 Feb 2025 and holds 29 Feb 2024
     p = P.make_periods("2023-03-01", "2025-06-01", "hydro_year", hydro_start_month=first_month)
     np.testing.assert_array_equal(annual_factor(p), np.ones(len(p)))
+    # so is a custom range of one year holding 29 February 2024 (8784 h, labelled by
+    # nothing: its start year 2023 has 8760 h)
+    one = P.make_periods(None, None, "custom", ranges=[("2023-07-01", "2024-07-01", "Y")])
+    assert annual_factor(one).tolist() == [1.0]
     # a month keeps the length of its year: February 2024 -> 8784 / 696
     months = P.make_periods("2024-02-01", "2024-03-01", "month")
     assert annual_factor(months).tolist() == pytest.approx([8784 / 696])
