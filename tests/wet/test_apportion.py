@@ -11,7 +11,7 @@ atomic weights (abridged), S 32.06 and N 14.007 g/mol (from memory).
 import numpy as np
 import pandas as pd
 import pytest
-from wet.wet_samples import make_samples, week
+from wet.wet_samples import make_met, make_samples, week
 
 from workbench import periods as P
 from workbench.budget import annual_factor
@@ -256,3 +256,24 @@ def test_nss_sulfate_resting_on_a_tracer_measured_in_few_samples_is_flagged():
     st, note, _, fails = wet_component(wet, "SO4", BudgetOptions(sulfate_basis="total"),
                                        status, fail)
     assert st.tolist() == [["complete"]] and not fails.any()
+
+
+def test_hourly_record_out_of_time_order_gives_the_same_sums():
+    # a met Dataset built by concatenating months out of order (the second week first):
+    # the sums over a window are those of the sorted record. Rain 1 mm/h in the 24 hours
+    # ending 2 Mar 01:00 - 3 Mar 00:00 and 0.5 mm/h in those ending 9 Mar 01:00 - 10 Mar
+    # 00:00: the week 1 - 8 Mar holds 24 mm, the week 8 - 15 Mar 12 mm.
+    from workbench.wet.hourly import met_precipitation
+
+    def rain(t):
+        return np.where((t > pd.Timestamp("2021-03-02")) & (t <= pd.Timestamp("2021-03-03")),
+                        1.0, np.where((t > pd.Timestamp("2021-03-09")) &
+                                      (t <= pd.Timestamp("2021-03-10")), 0.5, 0.0))
+    met = make_met(["A"], "2021-03-01", "2021-03-15", precipitation=rain)
+    swapped = met.isel(time=np.r_[168:336, 0:168])
+    starts = np.array(["2021-03-01", "2021-03-08"], "datetime64[ns]")
+    ends = np.array(["2021-03-08", "2021-03-15"], "datetime64[ns]")
+    for m in (met, swapped):
+        assert met_precipitation(m, ["A", "A"], starts, ends).tolist() == [24.0, 12.0]
+    with pytest.raises(ValueError, match="repeated"):
+        met_precipitation(met.isel(time=np.r_[0:336, 5]), ["A"], starts[:1], ends[:1])
