@@ -272,7 +272,8 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     fails = [
         # a fraction equal to its minimum passes (to rounding: qa.falls_short)
         (falls_short(gauge_fraction, opt.min_gauge_fraction), "gauge record below minimum"),
-        (falls_short(coverage_fraction, opt.min_coverage_fraction), "sample coverage below minimum"),
+        (falls_short(coverage_fraction, opt.min_coverage_fraction),
+         "sample coverage below minimum"),
         (wet & falls_short(vpf, opt.min_valid_precip_fraction),
          "valid-chemistry precipitation below minimum"),
         (wet & (n_valid < opt.min_valid_samples), "too few valid samples"),

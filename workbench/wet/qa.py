@@ -50,6 +50,7 @@ THRESHOLD_RTOL = 1e-9
 
 
 def _slack(threshold):
+    """Rounding allowance of a threshold [unit of `threshold`]."""
     return THRESHOLD_RTOL * np.abs(threshold)
 
 
