@@ -277,3 +277,34 @@ def test_hourly_record_out_of_time_order_gives_the_same_sums():
         assert met_precipitation(m, ["A", "A"], starts, ends).tolist() == [24.0, 12.0]
     with pytest.raises(ValueError, match="repeated"):
         met_precipitation(met.isel(time=np.r_[0:336, 5]), ["A"], starts[:1], ends[:1])
+
+
+@pytest.mark.parametrize("cell", ["trace", "T"])
+def test_a_trace_typed_in_the_gauge_column_is_refused_with_the_dry_week_advice(tmp_path, cell):
+    # A trace week is a measured (near) dry week, not a missing gauge reading: the error
+    # says to write 0 (an empty cell would turn the week into a gap of the gauge record).
+    # Written as 0 with the flag trace the week is dry and counts as covered; left empty
+    # it is a gap: the four-week gauge and coverage fractions are 1 against 3/4.
+    from tiny_inputs import SITES
+
+    from workbench.errors import InputError
+    from workbench.io import read_precipitation, read_sites
+    (tmp_path / "sites.toml").write_text(SITES)
+    cat = read_sites(tmp_path / "sites.toml")
+    head = "site,start,end,gauge_depth [mm],pH,SO4 [umol/L],NO3 [umol/L],NH4 [umol/L],flags\n"
+    weeks = "".join(f"beta,2021-06-{1 + 7 * k:02d}T00:00,2021-06-{8 + 7 * k:02d}T00:00,"
+                    "10,4.5,10,11.6,10,\n" for k in range(3))
+    last = "beta,2021-06-22T00:00,2021-06-29T00:00,{},,,,,{}\n"
+    (tmp_path / "p.csv").write_text(head + weeks + last.format(cell, "trace"))
+    with pytest.raises(InputError) as err:
+        read_precipitation(tmp_path / "p.csv", cat)
+    assert err.value.line == 5 and err.value.column == "gauge_depth [mm]"
+    assert "0 for a trace" in str(err.value) and "leave the cell empty" not in str(err.value)
+    per = P.make_periods(None, None, "custom", ranges=[("2021-06-01", "2021-06-29", "4wk")])
+    got = {}
+    for depth, flag in (("0", "trace"), ("", "")):
+        (tmp_path / "p.csv").write_text(head + weeks + last.format(depth, flag))
+        samples, _ = read_precipitation(tmp_path / "p.csv", cat)
+        w = wet_deposition(screen(samples), per).isel(site=0, period=0)
+        got[depth] = (w["gauge_fraction"].item(), w["coverage_fraction"].item())
+    assert got == {"0": (1.0, 1.0), "": (0.75, 0.75)}
