@@ -174,12 +174,19 @@ def annual_factor(periods: pd.DataFrame) -> np.ndarray:
     """Factor turning a period's deposition into a yearly rate [1].
 
     Hours in the year of the period's label (8784 in leap years) over the period's
-    hours; 1 for a calendar year.
+    hours; 1 for any period of exactly one year (a calendar or hydrological year, a
+    custom range from a date to the same date a year later): a whole year is its own
+    yearly rate, whether it holds 29 February or not (a hydrological year's label names
+    the year it ends in, which need not be the year of that February).
     """
     year = np.where(periods["year"].to_numpy() > 0, periods["year"].to_numpy(),
                     pd.DatetimeIndex(periods["start"]).year.to_numpy())
     leap = ((year % 4 == 0) & (year % 100 != 0)) | (year % 400 == 0)
-    return np.where(leap, 8784.0, 8760.0) / periods["hours"].to_numpy(dtype=float)
+    factor = np.where(leap, 8784.0, 8760.0) / periods["hours"].to_numpy(dtype=float)
+    start = pd.DatetimeIndex(periods["start"])
+    whole_year = ((start + pd.DateOffset(years=1)).to_numpy("datetime64[ns]")
+                  == periods["end"].to_numpy().astype("datetime64[ns]"))   # not clipped
+    return np.where(whole_year, 1.0, factor)
 
 
 # ------------------------------------------------------------------------------ assembly

@@ -16,6 +16,8 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
+from .wet.qa import exceeds, falls_short
+
 
 def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
                 options):
@@ -40,10 +42,12 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
         Why a component is missing or flagged ('' otherwise).
     """
     vd_any = np.nan_to_num(vd_cov) + np.nan_to_num(filled_share)
-    low_flux = flux_cov < options.min_air_coverage
-    fails = (coverage < options.min_air_coverage) | ~season_ok | low_flux
+    # a share equal to its bound (to rounding) is inside it: 10 % filled is not "more
+    # than 10 %" although 1 - 0.9 is 0.09999999999999998 (workbench.wet.qa)
+    low_flux = falls_short(flux_cov, options.min_air_coverage)
+    fails = falls_short(coverage, options.min_air_coverage) | ~season_ok | low_flux
     status = np.full(coverage.shape, "complete", dtype=object)
-    status = np.where(filled_share > 1 - options.min_vd_coverage, "filled", status)
+    status = np.where(exceeds(filled_share, 1 - options.min_vd_coverage), "filled", status)
     status = np.where(fails, "flagged", status)
     note = np.full(coverage.shape, "", dtype=object)
     note = np.where(low_flux & (flux_cov > 0) & (flux_cov < coverage),
@@ -119,16 +123,23 @@ def wet_component(w, sp, options, w_status, w_fail):
                 note = np.where(hit, join_notes(note, text), note)
     status = np.where(soft & np.isin(status, ("complete", "filled")), "flagged", status)
     # the ion itself measured in too small a share of the precipitation (another ion
-    # may have carried the period's completeness): a completeness failure
+    # may have carried the period's completeness): a completeness failure; on the nss
+    # basis the same for the sea-salt tracer, whose PWM is part of the component
     low_ion = np.zeros(d.shape, bool)
-    if "ion_valid_precip_fraction" in v and sp in list(w["ion"].values):
-        frac = w["ion_valid_precip_fraction"].sel(ion=sp).transpose("site", "period").values
+    ions = [sp] + ([tracer] if nss and name == f"dep_nss{sp}" else [])
+    for ion in ions:
+        if "ion_valid_precip_fraction" not in v or ion not in list(w["ion"].values):
+            continue
+        frac = w["ion_valid_precip_fraction"].sel(ion=ion).transpose("site", "period").values
         need = json.loads(w.attrs.get("wet_options", "{}")).get("min_valid_precip_fraction", 0.7)
-        low_ion = np.isfinite(frac) & (frac < need) & (frac > 0) & (w_status != "missing")
+        # equal to the minimum (to rounding) passes, as the wet chain's own criteria
+        low = (np.isfinite(frac) & falls_short(frac, need) & (frac > 0)
+               & (w_status != "missing"))
         pct = np.round(100 * np.nan_to_num(frac), 1).astype(str)
-        note = np.where(low_ion, join_notes(note, np.char.add(np.char.add(
-            f"{sp} valid for ", pct), " % of the precipitation only")), note)
-        status = np.where(low_ion, "flagged", status)
+        note = np.where(low, join_notes(note, np.char.add(np.char.add(
+            f"{ion} valid for ", pct), " % of the precipitation only")), note)
+        low_ion |= low
+    status = np.where(low_ion, "flagged", status)
     precip = v["precipitation"].values if "precipitation" in v else np.full(d.shape, np.nan)
     gone = ~np.isfinite(d) & (status != "missing")
     status = np.where(gone, "missing", status).astype(object)

@@ -131,6 +131,23 @@ def _sentinel_reasons(tab, name, label, sentinel):
                     + " looks like a missing-value code (masked)", "")
 
 
+#: Texts a gauge or collector record may hold for a trace of precipitation.
+_TRACE_TEXTS = ("trace", "tr", "t")
+
+
+def _trace_depth_error(exc: InputError) -> InputError:
+    """`exc`, or for a trace typed as text in a depth column ('trace', 'T') the error with
+    the advice to write 0: an empty cell would make a measured (near) dry week a missing
+    gauge reading, a gap in the gauge record and the coverage (docs/methods_wet.md 7)."""
+    if str(exc.value).strip().lower() not in _TRACE_TEXTS:
+        return exc
+    return InputError("a trace of precipitation typed as text", file=exc.file, line=exc.line,
+                      column=exc.column, value=exc.value,
+                      expected="a depth in mm: 0 for a trace (a measured dry or trace week "
+                      "counts as covered; an empty cell is a missing reading, a gap), with "
+                      "the flag 'trace' when the sample was too small to analyse")
+
+
 def _flag_words(tab, flag_text, flag_map):
     """The flags column as our words, space-joined per row (lab codes translated).
 
@@ -222,7 +239,11 @@ def read_precipitation(path, catalogue, flag_map=None):
     parts = [repeat_why]
 
     def depth(name):
-        raw, unit = tab.numbers(name, missing="samples"), tab.unit_of(name)
+        try:
+            raw = tab.numbers(name, missing="samples")
+        except InputError as exc:
+            raise _trace_depth_error(exc) from None
+        unit = tab.unit_of(name)
         try:
             v = convert_plain(raw, unit, "mm")
         except ValueError as exc:

@@ -19,7 +19,7 @@ from . import seasalt
 from .hourly import site_positions, window_sums
 from .options import WetOptions
 from .pwm import CoverageProfile, group_sums, precipitation_weighted_mean
-from .qa import UMOL_L_PER_MOL_M3, pH_from_hydrogen
+from .qa import UMOL_L_PER_MOL_M3, falls_short, pH_from_hydrogen
 from .screening import STATUSES
 
 #: m per mm (= 1e-3), from the unit registry: mol m-3 x mm -> mol m-2.
@@ -270,9 +270,12 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     missing = (n_samples == 0) | ~(gauge_hours > 0)
     wet = precip > 0
     fails = [
-        (gauge_fraction < opt.min_gauge_fraction, "gauge record below minimum"),
-        (coverage_fraction < opt.min_coverage_fraction, "sample coverage below minimum"),
-        (wet & (vpf < opt.min_valid_precip_fraction), "valid-chemistry precipitation below minimum"),
+        # a fraction equal to its minimum passes (to rounding: qa.falls_short)
+        (falls_short(gauge_fraction, opt.min_gauge_fraction), "gauge record below minimum"),
+        (falls_short(coverage_fraction, opt.min_coverage_fraction),
+         "sample coverage below minimum"),
+        (wet & falls_short(vpf, opt.min_valid_precip_fraction),
+         "valid-chemistry precipitation below minimum"),
         (wet & (n_valid < opt.min_valid_samples), "too few valid samples"),
     ]
     reasons = np.full(shape, "", dtype=object)

@@ -51,11 +51,22 @@ def window_sums(values: xr.DataArray, site_pos, starts, ends):
 
     Notes
     -----
+    A record out of time order is sorted first (a time stamp given twice is an error).
     With :math:`C_k = \\sum_{j<k} x_j` (NaN counted as 0), the sum over hours
     :math:`k_0 \\le k < k_1` is :math:`C_{k_1} - C_{k_0}`.
     """
-    v = values.transpose("site", "time").values.astype(float)
     times = values["time"].values.astype("datetime64[ns]")
+    if len(times) > 1 and not (times[1:] > times[:-1]).all():
+        # binary search needs the record in time order (a Dataset concatenated out of
+        # order); a time stamp given twice has no single value
+        order = np.argsort(times, kind="stable")
+        times = times[order]
+        if (times[1:] == times[:-1]).any():
+            t = times[1:][times[1:] == times[:-1]][0]
+            raise ValueError(f"hourly record: time {t} repeated; expected one value per "
+                             "site and hour")
+        values = values.isel(time=order)
+    v = values.transpose("site", "time").values.astype(float)
     valid = np.isfinite(v)
     cs = np.concatenate([np.zeros((v.shape[0], 1)), np.cumsum(np.where(valid, v, 0.0), axis=1)],
                         axis=1)

@@ -41,6 +41,60 @@ CONDUCTIVITY_FACTOR = (ureg.Quantity(1.0, "S*cm**2/mol") *
 #: Values given to a censored result, as a multiple of its detection limit.
 CENSORED_FACTOR = {"half": 0.5, "limit": 1.0, "zero": 0.0}
 
+#: Relative tolerance of every comparison with a threshold [1] (our choice): a value
+#: equal to its threshold in the decimals typed (5.4 mm / 4.5 mm = 1.2; 2.4 of 3.2 mm
+#: = 75 %) is on the side the rule names, although binary floating point may compute it
+#: a few units in the last place beyond (1.2000000000000002, 0.7499999999999999).
+#: 1e-9 is far below any measured difference and far above the rounding of the sums.
+THRESHOLD_RTOL = 1e-9
+
+
+def _slack(threshold):
+    """Rounding allowance of a threshold [unit of `threshold`]."""
+    return THRESHOLD_RTOL * np.abs(threshold)
+
+
+def exceeds(value, limit):
+    """True where `value` is above `limit` by more than rounding [bool].
+
+    ``value > limit (1 + THRESHOLD_RTOL)`` for a positive limit; NaN gives False.
+
+    >>> bool(exceeds(5.4 / 4.5, 1.2)), bool(exceeds(1.21, 1.2))
+    (False, True)
+    """
+    with np.errstate(invalid="ignore"):
+        return value > limit + _slack(limit)
+
+
+def falls_short(value, minimum):
+    """True where `value` is below `minimum` by more than rounding [bool]; NaN gives False.
+
+    >>> bool(falls_short(2.4 / (2.4 + 0.8), 0.75))
+    False
+    """
+    with np.errstate(invalid="ignore"):
+        return value < minimum - _slack(minimum)
+
+
+def at_least(value, threshold):
+    """True where `value` >= `threshold`, equality to rounding included [bool].
+
+    >>> bool(at_least(0.009999999999999998, 0.010))
+    True
+    """
+    with np.errstate(invalid="ignore"):
+        return value >= threshold - _slack(threshold)
+
+
+def at_most(value, threshold):
+    """True where `value` <= `threshold`, equality to rounding included [bool].
+
+    >>> bool(at_most(0.2, 1.0 - 0.8))
+    True
+    """
+    with np.errstate(invalid="ignore"):
+        return value <= threshold + _slack(threshold)
+
 
 def _is_xr(*args) -> bool:
     return any(isinstance(a, (xr.DataArray, xr.Dataset)) for a in args)
@@ -154,12 +208,14 @@ def tier_limit(value, tiers):
     Returns
     -------
     array_like
-        Allowed |difference| [%]; NaN where `value` is NaN.
+        Allowed |difference| [%]; NaN where `value` is NaN.  A value equal to a bound
+        (to :data:`THRESHOLD_RTOL`) belongs to the tier the bound closes.
 
     >>> tier_limit(np.array([20.0, 50.0, 50.1, 600.0]), ((50, 60), (100, 30), (500, 15), (np.inf, 10))).tolist()
     [60.0, 60.0, 30.0, 10.0]
     """
     bounds = np.array([b for b, _ in tiers], dtype=float)
+    bounds = bounds + _slack(bounds)
     limits = np.array([lim for _, lim in tiers], dtype=float)
 
     def lookup(x):
@@ -299,8 +355,8 @@ def biological_screen(potassium, ammonium, phosphate, k_min, nh4_min, po4_min):
     array_like of bool
         True where the sample looks contaminated (False where a value is NaN).
     """
-    hit = (potassium >= k_min) & (ammonium >= nh4_min)
-    return hit & (phosphate >= po4_min) if phosphate is not None else hit
+    hit = at_least(potassium, k_min) & at_least(ammonium, nh4_min)
+    return hit & at_least(phosphate, po4_min) if phosphate is not None else hit
 
 
 def dust_screen(pH, calcium, pH_min, ca_min):
@@ -322,7 +378,7 @@ def dust_screen(pH, calcium, pH_min, ca_min):
     -------
     array_like of bool
     """
-    return (pH >= pH_min) & (calcium >= ca_min)
+    return at_least(pH, pH_min) & at_least(calcium, ca_min)
 
 
 def precipitation_type(snow_share, share: float = 0.8):
@@ -345,5 +401,5 @@ def precipitation_type(snow_share, share: float = 0.8):
     ['rain', 'mixed', 'snow', 'unknown']
     """
     x = np.asarray(snow_share, dtype=float)
-    return np.select([~np.isfinite(x), x >= share, x <= 1.0 - share],
+    return np.select([~np.isfinite(x), at_least(x, share), at_most(x, 1.0 - share)],
                      ["unknown", "snow", "rain"], "mixed").astype(object)

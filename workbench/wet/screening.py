@@ -147,7 +147,7 @@ def ion_balance_test(cations, anions, tiers):
     idiff = qa.ion_difference(cations, anions)
     limit = qa.tier_limit(cations + anions, tiers)
     evaluated = np.isfinite(idiff)
-    return idiff, limit, evaluated, evaluated & (np.abs(idiff) > limit)
+    return idiff, limit, evaluated, evaluated & qa.exceeds(np.abs(idiff), limit)
 
 
 def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Dataset | None = None,
@@ -255,11 +255,11 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
                     "exclude" if opt.on_ion_balance_fail == "exclude" else "flag"))
     # gross errors: beyond every tier of the ion balance, or an implausible value
     loosest = max(opt.gross_ion_difference, max(lim for _, lim in opt.ion_balance_tiers))
-    gross = ib_eval & (np.abs(idiff) > loosest)
+    gross = ib_eval & qa.exceeds(np.abs(idiff), loosest)
     too_high = np.zeros(n, bool)
     for ion in ions:
         cap = (opt.max_seasalt_concentration if ion in ("Na", "Cl") else opt.max_concentration)
-        too_high |= np.nan_to_num(conc[ion], nan=0.0) > cap
+        too_high |= qa.exceeds(np.nan_to_num(conc[ion], nan=0.0), cap)
     gross_effect = "exclude" if opt.on_gross_error == "exclude" else "flag"
     reasons.append(("gross_ion_balance", f"gross error: |ion difference| above {loosest:g} % "
                     "(beyond every tier)", gross, gross_effect))
@@ -272,7 +272,7 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
     cdiff = qa.conductivity_difference(k_calc, k_meas)
     cd_limit = qa.tier_limit(k_meas, opt.conductivity_tiers)
     cd_eval = np.isfinite(cdiff)
-    cd_fail = cd_eval & (np.abs(cdiff) > cd_limit)
+    cd_fail = cd_eval & qa.exceeds(np.abs(cdiff), cd_limit)
     reasons.append(("conductivity", "conductivity outside acceptance", cd_fail,
                     "exclude" if opt.on_conductivity_fail == "exclude" else "flag"))
 
@@ -291,7 +291,7 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
               "unknown": opt.capture_unknown}
     lo = np.select([ptype == k for k in ranges], [r[0] for r in ranges.values()])
     hi = np.select([ptype == k for k in ranges], [r[1] for r in ranges.values()])
-    cap_low, cap_high = ratio < lo, ratio > hi
+    cap_low, cap_high = qa.falls_short(ratio, lo), qa.exceeds(ratio, hi)
     cap_effect = "exclude" if opt.on_capture_fail == "exclude" else "flag"
     reasons.append(("capture_low", "capture ratio below range", cap_low, cap_effect))
     reasons.append(("capture_high", "capture ratio above range (leak or contamination?)",
@@ -304,7 +304,7 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
         both = qa.biological_screen(conc["K"], conc["NH4"], None, opt.bio_potassium,
                                     opt.bio_ammonium, opt.bio_phosphate)
         has_po4 = np.isfinite(po4) if po4 is not None else np.zeros(n, bool)
-        bio = both & has_po4 & (np.where(has_po4, po4, 0.0) >= opt.bio_phosphate)
+        bio = both & has_po4 & qa.at_least(np.where(has_po4, po4, 0.0), opt.bio_phosphate)
         bio_weak = both & ~has_po4      # K and NH4 alone: farm rain too, so flag only
     else:
         bio = bio_weak = np.zeros(n, bool)
@@ -323,7 +323,7 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
                 bmax = _blank_values(ds, blanks, ion)
                 added[f"{ion}_blank"] = ("sample", bmax, {"units": "mol m-3",
                                                           "long_name": f"largest field blank of {ion}"})
-                blank_hit |= bmax > opt.blank_share * conc[ion]
+                blank_hit |= qa.exceeds(bmax, opt.blank_share * conc[ion])
     reasons.append(("blank", "field blank high against the sample", blank_hit, cont_effect))
 
     # --- gauge depth and its fill -------------------------------------------------------

@@ -1,9 +1,10 @@
 """Sea-salt correction: the non-sea-salt part of an ion from a sea-salt tracer.
 
 The correction is applied to precipitation-weighted means (it is linear, so the
-nss part of a PWM equals the PWM of the per-sample nss parts); it is never clipped
-at zero: a small negative nss value is the honest result of measurement noise or of
-a tracer with a second source, and is reported as such.
+nss part of a PWM equals the PWM of the per-sample nss parts).  :func:`non_seasalt`
+returns the difference as it is, negative values included; the wet chain
+(:func:`workbench.wet.wet_deposition`) clips a negative nss PWM at 0 and flags it
+(``nss<X>_clipped``; docs/methods_wet.md section 8), since a flux is never negative.
 
 Data table
 ----------

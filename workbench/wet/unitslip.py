@@ -168,14 +168,15 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
         lo, hi = options.capture_unknown
         ratio = qa.capture_ratio(sample, gauge, options.capture_min_depth)
         ok = np.isfinite(ratio)
-        for site in _suspects(sites, ok, ratio > hi, ratio < lo):
+        high, low = qa.exceeds(ratio, hi), qa.falls_short(ratio, lo)   # as the screening
+        for site in _suspects(sites, ok, high, low):
             at = sites == site
             n_eval = int((ok & at).sum())
-            for failing, side in (((ratio > hi) & at, "high"), ((ratio < lo) & at, "low")):
+            for failing, side in ((high & at, "high"), (low & at, "low")):
                 k = int(failing.sum())
                 if n_eval == 0 or k <= SHARE * n_eval:
                     continue
-                k_all = int((at & ((ratio > hi) | (ratio < lo))).sum())
+                k_all = int((at & (high | low)).sum())
                 best = None
                 for col in ("gauge_depth", "sample_depth"):
                     if col not in units:
@@ -191,7 +192,7 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
                             r2 = qa.capture_ratio(v, g * f, options.capture_min_depth)
                         else:
                             r2 = qa.capture_ratio(v * f, g, options.capture_min_depth)
-                        mended = int(((r2 >= lo) & (r2 <= hi)).sum())
+                        mended = int((qa.at_least(r2, lo) & qa.at_most(r2, hi)).sum())
                         if mended > SHARE * k and (best is None or mended > best[0]):
                             best = (mended, col, header, unit, other)
                 if best is not None:
