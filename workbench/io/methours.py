@@ -6,8 +6,8 @@ half or quarter UTC hour: 2021-06-01T10:00 at +9.5 h ends at 00:30 UTC.  The sam
 holds for a zoned label whose offset is fractional (``10:00+09:30``).  Such a label,
 on the whole hour of its own clock, is moved to the nearest whole UTC hour end, a tie
 (exactly half past) to the later hour: +5.75 h 15 min earlier, +9.5 h and -3.5 h
-30 min later.  A label off the whole hour of its own clock (10:20 at a whole-hour site,
-10:15 at +9.5 h) stays an error.  Every such site gets one ledger note
+30 min later.  A label already on the whole UTC hour (10:30 at +9.5 h) stays as it
+is; one on neither (10:20 at a whole-hour site, 10:15 at +9.5 h) stays an error.  Every such site gets one ledger note
 (:func:`move_notes`).  All three CSV paths (:func:`workbench.io.met.read_met`,
 :mod:`.metfast`, :mod:`.metlocate`) use these functions, so they move, refuse and note
 alike.  Why the later hour on a tie: docs/data_formats.md, section 4.
@@ -75,13 +75,15 @@ def to_hour_ends(t, clock_off):
     moved : numpy.ndarray of datetime64[ns]
         The nearest whole UTC hour, a tie to the later one; `t` where off the hour.
     off_hour : numpy.ndarray of bool
-        The label is not on the whole hour of its own clock (an error).
+        The label is neither on the whole UTC hour nor on the whole hour of its own
+        clock (an error).
     """
     t = np.asarray(t, dtype="datetime64[ns]")
-    clock = t + clock_off
-    off_hour = clock != _floor_hour(clock)
+    off_hour = t != _floor_hour(t)
     if not (clock_off % np.timedelta64(1, "h")).any():       # whole-hour clocks only
         return t, off_hour
+    clock = t + clock_off            # a label on the UTC hour (10:30 at +9.5 h) stays
+    off_hour &= clock != _floor_hour(clock)
     moved = np.where(off_hour, t, _floor_hour(t + HALF_HOUR))
     return moved, off_hour
 
