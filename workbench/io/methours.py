@@ -158,6 +158,6 @@ def repeat_hint(moved_either: bool) -> str:
     """The hint of a repeated hour that the move made (two labels, one UTC hour end)."""
     if not moved_either:
         return ""
-    return ("; a label on the half or quarter UTC hour is moved to the nearest whole UTC "
-            "hour end, and the two labels land on the same one (one offset per site's "
-            "hours, or hourly labels of one clock)")
+    return ("; a label on the half or quarter UTC hour (utc_offset_h or its zone) is "
+            "moved to the nearest whole UTC hour end, and these two labels land on the same "
+            "one: write a site's hours on the whole hours of one clock")
