@@ -13,6 +13,7 @@ arithmetic, ISO 8601 offsets).
 from __future__ import annotations
 
 import importlib.util
+import json
 from pathlib import Path
 
 import numpy as np
@@ -217,3 +218,149 @@ def test_shift_rule():
     want = [30, 30, -15, -15, -15, 30, 30, 0, 0, 30]
     got = shift_minutes((offs * 60).astype(int).astype("timedelta64[m]"))
     assert got.tolist() == want
+
+
+# --------------------------------------------------------------- what reads the moved hours
+@pytest.mark.filterwarnings("ignore:DatetimeIndex.dayofyear")      # inside pvlib
+def test_night_radiation_check_still_behaves(tmp_path, cat):
+    # Clear-sky global radiation of Haurwitz (1945) from pvlib (``Location.get_clearsky
+    # (model="haurwitz")``, the sun by SPA), averaged over each MEASURED local hour at
+    # +9.5 h and +5.75 h: moved onto the UTC grid it raises no "at night" flag (the sun
+    # of the moved hour is 30 min away, not enough to put a lit hour 3 deg below the
+    # horizon, metchecks.NIGHT_ELEVATION_DEG); the same record three hours off is caught.
+    pvlib = pytest.importorskip("pvlib")
+    frames = []
+    for sid, _, lat, lon, off in SITES[:2]:
+        for start in ("2021-03-10T01:00", "2021-06-10T01:00", "2021-12-10T01:00"):
+            local = pd.date_range(start, periods=24 * 8, freq="h")
+            end_utc = (local - pd.Timedelta(hours=off)).tz_localize("UTC")
+            fine = pd.date_range(end_utc[0] - pd.Timedelta("55min"), end_utc[-1], freq="5min")
+            ghi = pvlib.location.Location(lat, lon).get_clearsky(fine, model="haurwitz")["ghi"]
+            hourly = ghi.rolling(12).mean().reindex(end_utc).to_numpy()   # the hour's 12 values
+            frames.append(pd.DataFrame({"site": sid, "time": local.strftime("%Y-%m-%dT%H:%M"),
+                                        "sr": np.round(hourly, 1)}))
+    df = pd.concat(frames)
+
+    def reasons(sr):
+        rows = [f"{s},{t},3.0,20,70,{v},0,1005\n" for s, t, v in zip(df["site"], df["time"], sr)]
+        (tmp_path / "met.csv").write_text(HEAD + "".join(rows))
+        _, led = read_met(tmp_path / "met.csv", cat)
+        return set(led.table["reason"].str.split("; ").explode()) - {""}
+
+    assert df["sr"].max() > 800                                       # real days
+    assert not [r for r in reasons(df["sr"]) if "night" in r]
+    late = df.groupby(["site", df["time"].str[:7]])["sr"].shift(-3)     # 3 h too early
+    assert [r for r in reasons(late.fillna(0)) if "night" in r]
+
+
+def _sample_case(tmp_path, cat):
+    """A weekly sample 09:00-09:00 local at +9.5 h, and hourly met whose precipitation
+    marks the hours: 1 mm in each of the sample's 168 measured hours, 5 mm in the hour
+    before it, 7 mm in the hour after it (within the hourly range)."""
+    from workbench.io.samples import read_precipitation
+    (tmp_path / "precip.csv").write_text(
+        "site,start,end,gauge_depth [mm],sample_depth [mm]\n"
+        "kestrel,2021-06-01T09:00,2021-06-08T09:00,168,160\n")
+    samples, _ = read_precipitation(tmp_path / "precip.csv", cat)
+    local = pd.date_range("2021-05-31T01:00", "2021-06-10T00:00", freq="h")   # hour ends
+    rain = np.zeros(len(local))
+    first = local.get_loc(pd.Timestamp("2021-06-01T10:00"))    # ends 1 h after the start
+    rain[first:first + 168] = 1.0
+    rain[first - 1], rain[first + 168] = 5.0, 7.0
+    rows = [f"kestrel,{t:%Y-%m-%dT%H:%M},3.0,20,70,0,{r},1005\n" for t, r in zip(local, rain)]
+    (tmp_path / "met.csv").write_text(HEAD + "".join(rows))
+    met, _ = read_met(tmp_path / "met.csv", cat)
+    return samples, met
+
+
+def test_weekly_sample_at_half_hour_site_and_its_met_hours(tmp_path, cat):
+    # The sample's start and end are instants: 09:00 local at +9.5 h = 23:30 UTC the day
+    # before, not moved.  Its 168 measured hours are on the grid as the hours ending
+    # 01:00 UTC (06-01) ... 00:00 UTC (06-08), each 30 min later than measured, so the
+    # sample's edges fall on the middle of a grid hour.
+    from workbench.dryflux import _hour_bounds
+    from workbench.io.metchecks import gauge_comparison
+    samples, met = _sample_case(tmp_path, cat)
+    assert str(samples["start"].values[0])[:16] == "2021-05-31T23:30"
+    assert str(samples["end"].values[0])[:16] == "2021-06-07T23:30"
+    times = met["time"].values
+    rain = met["precipitation"].sel(site="kestrel").values       # [mm] a depth per hour
+    # the dry chain takes the hours whose middle lies in [start, end): 168 hours, the
+    # hour before the sample (5 mm, grid middle 23:30 = the start) in and the sample's
+    # last measured hour (grid middle 23:30 = the end) out: one hour early at each edge
+    a, b = _hour_bounds(times, samples["start"].values, samples["end"].values)
+    assert int(b[0] - a[0]) == 168
+    assert rain[a[0]] == 5.0 and np.isclose(rain[a[0]:b[0]].sum(), 5.0 + 167)
+    # the gauge comparison sums the whole grid hours inside: 167 of the 168 measured
+    # hours (the last one lies half outside), so it counts one hour missing and does not
+    # judge such a sample (docs/data_formats.md, section 4)
+    g = gauge_comparison(met, samples)
+    assert np.isclose(g["met_depth"].iloc[0], 167.0)
+    assert int(g["met_hours_missing"].iloc[0]) == 1 and not g["suspicious"].iloc[0]
+
+
+def test_engine_sun_of_a_moved_hour_is_the_sun_of_its_utc_hour(tmp_path, cat):
+    # Reference: pvlib's SPA (Reda and Andreas 2004, ``get_solarposition`` method
+    # "nrel_numpy", geometric zenith), as tests/surface/test_surface_solar_pvlib.py.
+    # After the move the engine's zenith of an hour is SPA's at the middle of the UTC
+    # hour it now labels (within 0.6 deg, that file's bound for Spencer's series); the
+    # sun of the hour as measured (30 min earlier at +9.5 h) differs by up to the sun's
+    # path in 30 min (about 7.5 deg): the known cost of the move.
+    pvlib = pytest.importorskip("pvlib")
+    from workbench.drydep.canopy import cos_zenith
+    lat, lon = SITES[0][2], SITES[0][3]
+    local = pd.date_range("2021-03-18T01:00", periods=24 * 6, freq="h")
+    rows = [("kestrel", f"{t:%Y-%m-%dT%H:%M}", 20.0) for t in local]
+    met, _ = read_met(_csv(tmp_path / "met.csv", rows), cat)
+    labels = met["time"].values
+    assert len(labels) == len(local)
+    acc = {"latitude": np.array([lat]), "longitude": np.array([lon])}
+    cz = cos_zenith(labels.astype("datetime64[ns]"), lambda k: acc[k][:, None, None])[0, 0]
+    ours = np.rad2deg(np.arccos(np.clip(cz, -1, 1)))
+
+    def spa(instants):
+        return pvlib.solarposition.get_solarposition(instants, lat, lon,
+                                                     method="nrel_numpy")["zenith"].to_numpy()
+    grid_mid = pd.DatetimeIndex(labels).tz_localize("UTC") - pd.Timedelta("30min")
+    measured_mid = (local - pd.Timedelta(hours=9.5)).tz_localize("UTC") - pd.Timedelta("30min")
+    assert (grid_mid - measured_mid == pd.Timedelta("30min")).all()
+    assert np.abs(ours - spa(grid_mid)).max() < 0.6
+    cost = np.abs(ours - spa(measured_mid))
+    assert 5.0 < cost.max() < 8.0
+
+
+def test_half_hour_site_runs_end_to_end(tmp_path):
+    # The tiny budget scenario of tests/test_budget.py at UTC+0, and the same inputs for
+    # a site at +9.5 h: samples and air periods written in local time (00:00 UTC =
+    # 09:30 local), met as local whole hours (01:00 UTC = 10:00 local = 00:30 UTC before
+    # the move).  Both run `workbench run`; the budgets are the same numbers, and the
+    # move's note reaches the run's provenance.
+    import test_budget as tb
+    from workbench.cli import main
+    base, half = tmp_path / "utc", tmp_path / "half"
+    base.mkdir()
+    half.mkdir()
+    tb._write(base)
+    tb._write(half)
+    (half / "sites.toml").write_text(tb.SITES.replace("utc_offset_h = 0", "utc_offset_h = 9.5"))
+
+    def relabel(name, cols, hours):
+        lines = (half / name).read_text().splitlines(keepends=True)
+        head = [x for x in lines if x.startswith("#")]
+        df = pd.read_csv(half / name, comment="#", dtype=str, keep_default_na=False)
+        for c in cols:
+            df[c] = (pd.to_datetime(df[c]) + pd.Timedelta(hours=hours)).dt.strftime("%Y-%m-%dT%H:%M")
+        (half / name).write_text("".join(head) + df.to_csv(index=False))
+    relabel("precip.csv", ["start", "end"], 9.5)
+    relabel("air.csv", ["start", "end"], 9.5)
+    relabel("met.csv", ["time"], 9.0)
+    assert "2021-02-01T10:00" in (half / "met.csv").read_text()
+    for d in (base, half):
+        assert main(["run", str(d / "scenario.toml"), "--out", str(d / "out"), "--quiet"]) == 0
+    a = pd.read_csv(base / "out" / "budget.csv")
+    b = pd.read_csv(half / "out" / "budget.csv")
+    assert len(a) and a["flux_kg_ha"].notna().any()
+    pd.testing.assert_frame_equal(a, b)
+    notes = json.loads((half / "out" / "provenance.json").read_text())["input_notes"]
+    assert [n for n in notes if n.startswith("met alpha: utc_offset_h 9.5 puts the local hours "
+                                             "on the half UTC hour; each hour moved 30 min later")]
