@@ -186,7 +186,8 @@ def test_labels_already_on_the_utc_hour_stay(tmp_path, cat, monkeypatch):
                                          ("otter", "2021-06-01T10:15+09:30")])
 def test_a_label_genuinely_off_the_hour_is_still_an_error(tmp_path, cat, monkeypatch, site,
                                                           label):
-    rows = [(site, "2021-06-01T08:00" + label[16:], 1.0), (site, "2021-06-01T09:00" + label[16:], 2.0),
+    zone = label[16:]
+    rows = [(site, "2021-06-01T08:00" + zone, 1.0), (site, "2021-06-01T09:00" + zone, 2.0),
             (site, label, 3.0)]
     msg = _error_both(_csv(tmp_path / "met.csv", rows), cat, monkeypatch)
     assert "line 4" in msg and "timestamp not on the hour" in msg and repr(label) in msg
@@ -349,7 +350,8 @@ def test_half_hour_site_runs_end_to_end(tmp_path):
         head = [x for x in lines if x.startswith("#")]
         df = pd.read_csv(half / name, comment="#", dtype=str, keep_default_na=False)
         for c in cols:
-            df[c] = (pd.to_datetime(df[c]) + pd.Timedelta(hours=hours)).dt.strftime("%Y-%m-%dT%H:%M")
+            t = pd.to_datetime(df[c]) + pd.Timedelta(hours=hours)
+            df[c] = t.dt.strftime("%Y-%m-%dT%H:%M")
         (half / name).write_text("".join(head) + df.to_csv(index=False))
     relabel("precip.csv", ["start", "end"], 9.5)
     relabel("air.csv", ["start", "end"], 9.5)

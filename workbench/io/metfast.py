@@ -32,9 +32,11 @@ commas, doubled quotes, letters beyond ASCII) is made plain by the line reader's
 parser, per chunk (:func:`.linechunks.parsed_cells`).  The rows of the columns read must
 be plain ASCII, every line with the header's number of fields, and for the rows
 themselves every cell a number or a missing-value text (counted for the ledger note as
-the line reader counts them), a known site and a valid timestamp on the hour, each
-site's timestamps all zoned or all naive (per-site tallies of the zone flags,
-:class:`~.metlocate.ZoneTally`), no repeated hour.  An error of one row (the last
+the line reader counts them), a known site and a valid timestamp on the hour (a half
+or quarter hour of a fractional offset moved to the whole UTC hour, :mod:`.methours`,
+with the line reader's one note per site), each site's timestamps all zoned or all
+naive (per-site tallies of the zone flags, :class:`~.metlocate.ZoneTally`), no
+repeated hour.  An error of one row (the last
 conditions) and a line with more fields than the header (``...,3.2,,`` where the header
 ends at 3.2: the line reader's parser refuses the file) it locates itself as the line
 reader does (:mod:`.metlocate`).  For the truly odd files (a quoted cell over several

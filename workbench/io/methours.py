@@ -7,10 +7,11 @@ holds for a zoned label whose offset is fractional (``10:00+09:30``).  Such a la
 on the whole hour of its own clock, is moved to the nearest whole UTC hour end, a tie
 (exactly half past) to the later hour: +5.75 h 15 min earlier, +9.5 h and -3.5 h
 30 min later.  A label already on the whole UTC hour (10:30 at +9.5 h) stays as it
-is; one on neither (10:20 at a whole-hour site, 10:15 at +9.5 h) stays an error.  Every such site gets one ledger note
-(:func:`move_notes`).  All three CSV paths (:func:`workbench.io.met.read_met`,
-:mod:`.metfast`, :mod:`.metlocate`) use these functions, so they move, refuse and note
-alike.  Why the later hour on a tie: docs/data_formats.md, section 4.
+is; one on neither (10:20 at a whole-hour site, 10:15 at +9.5 h) stays an error.
+Every such site gets one ledger note (:func:`move_notes`).  All three CSV paths
+(:func:`workbench.io.met.read_met`, :mod:`.metfast`, :mod:`.metlocate`) use these
+functions, so they move, refuse and note alike.  Why the later hour on a tie:
+docs/data_formats.md, section 4.
 """
 from __future__ import annotations
 
@@ -43,7 +44,8 @@ def zone_offsets(text) -> np.ndarray:
     hh = pd.to_numeric(parts["hh"], errors="coerce").fillna(0).to_numpy()
     mm = pd.to_numeric(parts["mm"], errors="coerce").fillna(0).to_numpy()
     sign = np.where(parts["sign"].to_numpy(dtype=object) == "-", -1, 1)
-    return (sign * (hh * 60 + mm)).astype(np.int64).astype("timedelta64[m]").astype("timedelta64[ns]")
+    minutes = (sign * (hh * 60 + mm)).astype(np.int64)
+    return minutes.astype("timedelta64[m]").astype("timedelta64[ns]")
 
 
 def clock_offsets(text, zoned, site_off_ns) -> np.ndarray:
@@ -148,8 +150,8 @@ def moved_pairs(site_idx, clock_off, zoned, moved):
         return set()
     m = np.asarray(moved, bool)
     z = np.zeros(len(m), bool) if zoned is None else np.asarray(zoned, bool)
-    frame = pd.DataFrame({"s": np.asarray(site_idx)[m],
-                          "o": (np.asarray(clock_off)[m] // np.timedelta64(1, "m")).astype(np.int64),
+    minutes = (np.asarray(clock_off)[m] // np.timedelta64(1, "m")).astype(np.int64)
+    frame = pd.DataFrame({"s": np.asarray(site_idx)[m], "o": minutes,
                           "z": z[m]}).drop_duplicates()
     return set(zip(frame["s"].tolist(), frame["o"].tolist(), frame["z"].tolist()))
 
