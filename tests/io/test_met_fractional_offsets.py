@@ -80,8 +80,10 @@ def _both(path, cat, monkeypatch):
 
 
 def _error_both(path, cat, monkeypatch):
+    """The error of the chunked reader, located by itself (metlocate; it does not hand
+    the file to the line reader), and the line reader's: the same text."""
     with pytest.raises(InputError) as fast:
-        read_met(path, cat)
+        metfast.read_met_csv_fast(path, cat)
     with monkeypatch.context() as m:
         m.setattr(metfast, "read_met_csv_fast", lambda *a, **k: None)
         with pytest.raises(InputError) as line:
@@ -156,6 +158,21 @@ def test_one_note_per_site_whatever_its_rows(tmp_path, cat, monkeypatch):
     # day before -> 16:00; the 300th hour is 12 days 11 hours later
     k = met["temperature"].sel(site="kestrel").dropna("time")["time"].values
     assert str(k[0])[:16] == "2021-05-31T16:00" and str(k[-1])[:16] == "2021-06-13T03:00"
+
+
+@pytest.mark.parametrize("bad, problem", [("2021-06-05T10:15", "timestamp not on the hour"),
+                                          ("2021-06-05T09:30", "duplicate hourly timestamp")])
+def test_errors_after_many_moved_chunks(tmp_path, cat, monkeypatch, bad, problem):
+    # the bad label far down the file, after many chunks of moved hours: the chunked
+    # reader names the line reader's line (09:30 at +9.5 h = 00:00 UTC, the hour that
+    # 09:00 local, moved 30 min later, already holds)
+    local = pd.date_range("2021-06-01T01:00", periods=200, freq="h").strftime("%Y-%m-%dT%H:%M")
+    rows = [("kestrel", t, 10.0) for t in local]
+    rows.insert(150, ("kestrel", bad, 1.0))
+    with monkeypatch.context() as m:
+        m.setattr(metfast, "CHUNK_BYTES", 1500)
+        msg = _error_both(_csv(tmp_path / "met.csv", rows), cat, monkeypatch)
+    assert "line 152" in msg and problem in msg
 
 
 def test_start_labels_move_as_end_labels(tmp_path, cat, monkeypatch):
