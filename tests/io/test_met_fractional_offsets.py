@@ -271,21 +271,21 @@ def test_night_radiation_check_still_behaves(tmp_path, cat):
     assert [r for r in reasons(late.fillna(0)) if "night" in r]
 
 
-def _sample_case(tmp_path, cat):
-    """A weekly sample 09:00-09:00 local at +9.5 h, and hourly met whose precipitation
+def _sample_case(tmp_path, cat, site="kestrel"):
+    """A weekly sample 09:00-09:00 local at the site, and hourly met whose precipitation
     marks the hours: 1 mm in each of the sample's 168 measured hours, 5 mm in the hour
     before it, 7 mm in the hour after it (within the hourly range)."""
     from workbench.io.samples import read_precipitation
     (tmp_path / "precip.csv").write_text(
         "site,start,end,gauge_depth [mm],sample_depth [mm]\n"
-        "kestrel,2021-06-01T09:00,2021-06-08T09:00,168,160\n")
+        f"{site},2021-06-01T09:00,2021-06-08T09:00,168,160\n")
     samples, _ = read_precipitation(tmp_path / "precip.csv", cat)
     local = pd.date_range("2021-05-31T01:00", "2021-06-10T00:00", freq="h")   # hour ends
     rain = np.zeros(len(local))
     first = local.get_loc(pd.Timestamp("2021-06-01T10:00"))    # ends 1 h after the start
     rain[first:first + 168] = 1.0
     rain[first - 1], rain[first + 168] = 5.0, 7.0
-    rows = [f"kestrel,{t:%Y-%m-%dT%H:%M},3.0,20,70,0,{r},1005\n" for t, r in zip(local, rain)]
+    rows = [f"{site},{t:%Y-%m-%dT%H:%M},3.0,20,70,0,{r},1005\n" for t, r in zip(local, rain)]
     (tmp_path / "met.csv").write_text(HEAD + "".join(rows))
     met, _ = read_met(tmp_path / "met.csv", cat)
     return samples, met
@@ -315,6 +315,23 @@ def test_weekly_sample_at_half_hour_site_and_its_met_hours(tmp_path, cat):
     g = gauge_comparison(met, samples)
     assert np.isclose(g["met_depth"].iloc[0], 167.0)
     assert int(g["met_hours_missing"].iloc[0]) == 1 and not g["suspicious"].iloc[0]
+
+
+def test_weekly_sample_at_quarter_hour_site_and_its_met_hours(tmp_path, cat):
+    # +5.75 h: 09:00 local = 03:15 UTC; the measured hours move 15 min earlier, to the
+    # grid hours ending 04:00 (06-01) ... 03:00 (06-08), whose middles (03:30 ... 02:30)
+    # lie inside [06-01 03:15, 06-08 03:15): the dry chain takes exactly the sample's hours; the
+    # gauge comparison leaves out the first (grid 03:00-04:00 starts before 03:15).
+    from workbench.dryflux import _hour_bounds
+    from workbench.io.metchecks import gauge_comparison
+    samples, met = _sample_case(tmp_path, cat, "marten")
+    assert str(samples["start"].values[0])[:16] == "2021-06-01T03:15"
+    rain = met["precipitation"].sel(site="marten").values
+    a, b = _hour_bounds(met["time"].values, samples["start"].values, samples["end"].values)
+    assert int(b[0] - a[0]) == 168 and (rain[a[0]:b[0]] == 1.0).all()
+    g = gauge_comparison(met, samples)
+    assert np.isclose(g["met_depth"].iloc[0], 167.0)
+    assert int(g["met_hours_missing"].iloc[0]) == 1
 
 
 def test_engine_sun_of_a_moved_hour_is_the_sun_of_its_utc_hour(tmp_path, cat):
