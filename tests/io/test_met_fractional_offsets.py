@@ -320,8 +320,9 @@ def test_weekly_sample_at_half_hour_site_and_its_met_hours(tmp_path, cat):
 def test_weekly_sample_at_quarter_hour_site_and_its_met_hours(tmp_path, cat):
     # +5.75 h: 09:00 local = 03:15 UTC; the measured hours move 15 min earlier, to the
     # grid hours ending 04:00 (06-01) ... 03:00 (06-08), whose middles (03:30 ... 02:30)
-    # lie inside [06-01 03:15, 06-08 03:15): the dry chain takes exactly the sample's hours; the
-    # gauge comparison leaves out the first (grid 03:00-04:00 starts before 03:15).
+    # lie inside [06-01 03:15, 06-08 03:15): the dry chain takes exactly the sample's
+    # hours; the gauge comparison leaves out the first (grid 03:00-04:00 starts before
+    # 03:15).
     from workbench.dryflux import _hour_bounds
     from workbench.io.metchecks import gauge_comparison
     samples, met = _sample_case(tmp_path, cat, "marten")
