@@ -21,6 +21,8 @@ from .table import RawTable
 
 from .metvars import _UNITS_OUT, HOUR, MET_VARIABLES, convert_met  # noqa: F401 (re-exported)
 from .metvars import site_time_dataset
+from .methours import CLOCK_BACK_MONTHS, clock_change_hint  # noqa: F401 (re-exported; in
+#                    methours so that metlocate needs no import of met: no import cycle)
 
 
 def _convert(tab: RawTable, name: str, target: str):
@@ -136,27 +138,6 @@ def check_hours(sites, t, where, name_row, off_hour=None, moved=None):
                     f"one row per site and hour (also on {name_row(first)})"
                     + _repeat_hint(sites, t, i, first)
                     + methours.repeat_hint(moved is not None and bool(moved[i] or moved[first])))
-
-
-#: Months in which clocks go back from summer time, north and south (common practice).
-CLOCK_BACK_MONTHS = (3, 4, 9, 10, 11)
-
-
-def clock_change_hint(adjacent: bool, month: int) -> str:
-    """A hint when a repeated hour looks like the hour a clock repeats when it goes back
-    from summer time: the two rows follow each other for their site and fall in a month
-    of clock changes (:data:`CLOCK_BACK_MONTHS`); "" otherwise.
-
-    >>> clock_change_hint(True, 10)[:48]
-    '; the clock going back from summer time? Write t'
-    >>> clock_change_hint(True, 7), clock_change_hint(False, 10)
-    ('', '')
-    """
-    if not adjacent or month not in CLOCK_BACK_MONTHS:
-        return ""
-    return ("; the clock going back from summer time? Write the times in the site's "
-            "standard time (utc_offset_h) or with their offset, e.g. 02:00+02:00 then "
-            "02:00+01:00")
 
 
 def _repeat_hint(sites, t, i, first) -> str:

@@ -163,3 +163,24 @@ def repeat_hint(moved_either: bool) -> str:
     return ("; a label on the half or quarter UTC hour (utc_offset_h or its zone) is "
             "moved to the nearest whole UTC hour end, and these two labels land on the same "
             "one: write a site's hours on the whole hours of one clock")
+
+
+#: Months in which clocks go back from summer time, north and south (common practice).
+CLOCK_BACK_MONTHS = (3, 4, 9, 10, 11)
+
+
+def clock_change_hint(adjacent: bool, month: int) -> str:
+    """A hint when a repeated hour looks like the hour a clock repeats when it goes back
+    from summer time: the two rows follow each other for their site and fall in a month
+    of clock changes (:data:`CLOCK_BACK_MONTHS`); "" otherwise.
+
+    >>> clock_change_hint(True, 10)[:48]
+    '; the clock going back from summer time? Write t'
+    >>> clock_change_hint(True, 7), clock_change_hint(False, 10)
+    ('', '')
+    """
+    if not adjacent or month not in CLOCK_BACK_MONTHS:
+        return ""
+    return ("; the clock going back from summer time? Write the times in the site's "
+            "standard time (utc_offset_h) or with their offset, e.g. 02:00+02:00 then "
+            "02:00+01:00")

@@ -259,7 +259,6 @@ def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour
 
 def _raise_repeat(path, raw_headers, repeat, line_text, catalogue):
     """The line reader's error for a repeated hour (workbench.io.met.check_hours)."""
-    from .met import clock_change_hint
     line, first = repeat
     value = line_text(line)["time"]
     moved = False                   # was either label moved onto the whole UTC hour?
@@ -277,7 +276,7 @@ def _raise_repeat(path, raw_headers, repeat, line_text, catalogue):
     raise InputError("duplicate hourly timestamp", file=Path(path), line=line,
                      column=raw_headers["time"], value=value,
                      expected=f"one row per site and hour (also on line {first})"
-                     + clock_change_hint(line == first + 1, month)
+                     + methours.clock_change_hint(line == first + 1, month)
                      + methours.repeat_hint(moved))
 
 
