@@ -224,10 +224,13 @@ def test_a_repeat_made_by_the_move_is_a_located_error(tmp_path, cat, monkeypatch
     msg = _error_both(path, cat, monkeypatch)
     assert "line 3" in msg and "duplicate hourly timestamp" in msg
     assert "moved to the nearest whole UTC hour end" in msg
-    # a plain repeat at a whole-hour site gets no such hint
-    path = _csv(tmp_path / "p.csv", [("otter", "2021-06-01T10:00", 1.0),
-                                     ("otter", "2021-06-01T10:00", 2.0)])
-    assert "moved to the nearest" not in _error_both(path, cat, monkeypatch)
+    # a plain repeat gets no such hint: at a whole-hour site, and of two labels already
+    # on the UTC hour at +9.5 h (10:30 = 01:00 UTC, not moved)
+    for k, (site, label) in enumerate([("otter", "2021-06-01T10:00"),
+                                       ("kestrel", "2021-06-01T10:30")]):
+        path = _csv(tmp_path / f"p{k}.csv", [(site, label, 1.0), (site, label, 2.0)])
+        msg = _error_both(path, cat, monkeypatch)
+        assert "duplicate hourly timestamp" in msg and "moved to the nearest" not in msg
 
 
 def test_shift_rule():

@@ -261,14 +261,14 @@ def _raise_repeat(path, raw_headers, repeat, line_text, catalogue):
     """The line reader's error for a repeated hour (workbench.io.met.check_hours)."""
     line, first = repeat
     value = line_text(line)["time"]
-    moved = False                   # was either label moved onto the whole UTC hour?
+    moved = False     # was either label moved onto the whole UTC hour (off it as read)?
     for k in (line, first):
         cells = line_text(k)
         zoned = bool(_OFFSET.search(str(cells["time"])))
-        clock = methours.clock_offsets(np.array([cells["time"]], dtype=object), [zoned],
-                                       methours.site_offsets_ns(
-                                           catalogue.utc_offsets([cells["site"]])))
-        moved = moved or bool(methours.shift_minutes(clock)[0])
+        t = parse_iso(pd.Series([str(cells["time"])], dtype=object), zoned)
+        if not zoned:
+            t = t - methours.site_offsets_ns(catalogue.utc_offsets([cells["site"]]))
+        moved = moved or bool((t != t.astype("datetime64[h]").astype("datetime64[ns]"))[0])
     try:
         month = pd.Timestamp(str(value)[:10]).month
     except ValueError:
