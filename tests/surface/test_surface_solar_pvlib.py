@@ -147,7 +147,8 @@ utc_offset_h = {off}
 """
 #: Invented sites with offsets west and east of Greenwich and in the southern
 #: hemisphere.  (A half-hour offset such as 9.5 h puts naive hour-ending labels on the
-#: half UTC hour, which the met readers refuse: "timestamp not on the hour".)
+#: half UTC hour; the met readers move them to the nearest whole UTC hour end, and the
+#: sun of such a site is checked in tests/io/test_met_fractional_offsets.py.)
 LABEL_SITES = [("westfield", "West Test Field", 38.5, -77.0, -5.0),
                ("southmoor", "South Test Moor", -34.5, 150.5, 10.0),
                ("northfen", "North Test Fen", 60.0, 11.0, 1.0)]

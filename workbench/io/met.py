@@ -14,13 +14,15 @@ import pandas as pd
 import xarray as xr
 
 from ..errors import InputError, suggest
-from . import metchecks
+from . import metchecks, methours
 from .common import check_sites, check_time_zones, join_reasons, unit_error
 from .ledger import Ledger
 from .table import RawTable
 
 from .metvars import _UNITS_OUT, HOUR, MET_VARIABLES, convert_met  # noqa: F401 (re-exported)
 from .metvars import site_time_dataset
+from .methours import CLOCK_BACK_MONTHS, clock_change_hint  # noqa: F401 (re-exported; in
+#                    methours so that metlocate needs no import of met: no import cycle)
 
 
 def _convert(tab: RawTable, name: str, target: str):
@@ -77,17 +79,26 @@ def read_met(path, catalogue):
     check_time_zones(tab, sites, names=("time",))     # one convention per site
     if label == "start":
         t = t + HOUR
+    clock = methours.clock_offsets(tab.frame["time"].to_numpy(object), tab.zoned["time"],
+                                   methours.site_offsets_ns(off))
+    measured = t
+    t, off_hour = methours.to_hour_ends(t, clock)     # half/quarter hours: the UTC hour
 
     def where(i, problem, expected):
         return tab.error(problem, row=i, column="time", value=tab.frame["time"].iloc[i],
                          expected=expected)
-    check_hours(sites, t, where, lambda i: f"line {int(tab.lines[i])}")
+    check_hours(sites, t, where, lambda i: f"line {int(tab.lines[i])}", off_hour,
+                moved=t != measured)
     values, raw_units = {}, {}
     for name, (target, req, _) in MET_VARIABLES.items():
         if tab.has(name):
             values[name], raw_units[name] = _convert(tab, name, target)
     ds, ledger = _assemble(values, sites, t, tab.lines, tab.path, catalogue, raw_units,
                            empty_reason="no values in the row")
+    pos = pd.Index(list(catalogue.ids)).get_indexer(sites)
+    ledger.notes[:0] = methours.move_notes(      # one per site whose hours were moved
+        list(catalogue.ids), catalogue.utc_offsets(list(catalogue.ids)),
+        methours.moved_pairs(pos, clock, tab.zoned["time"], t != measured))
     unknown = tab.unknown_columns(set(MET_VARIABLES) | {"site", "time"})
     if unknown:
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
@@ -96,7 +107,7 @@ def read_met(path, catalogue):
     return ds, ledger
 
 
-def check_hours(sites, t, where, name_row):
+def check_hours(sites, t, where, name_row, off_hour=None, moved=None):
     """Raise for a time off the whole hour or a second row for one site and hour.
 
     Parameters
@@ -108,8 +119,14 @@ def check_hours(sites, t, where, name_row):
         ``where(i, problem, expected)`` -> the located InputError of row i.
     name_row : callable
         ``name_row(i)`` -> how row i is named in a message ("line 7", "time index 3").
+    off_hour : ndarray of bool, optional
+        Rows off the whole hour of their own clock
+        (:func:`~workbench.io.methours.to_hour_ends`); default: `t` off the UTC hour.
+    moved : ndarray of bool, optional
+        Rows moved onto the whole UTC hour (a repeat they make gets a hint).
     """
-    off_hour = (t - t.astype("datetime64[h]").astype("datetime64[ns]")) != np.timedelta64(0, "ns")
+    if off_hour is None:
+        off_hour = t != t.astype("datetime64[h]").astype("datetime64[ns]")
     if off_hour.any():
         raise where(int(np.flatnonzero(off_hour)[0]), "timestamp not on the hour",
                     "hourly timestamps (minutes 00)")
@@ -119,28 +136,8 @@ def check_hours(sites, t, where, name_row):
         first = int(np.flatnonzero((sites == sites[i]) & (t == t[i]))[0])
         raise where(i, "duplicate hourly timestamp",
                     f"one row per site and hour (also on {name_row(first)})"
-                    + _repeat_hint(sites, t, i, first))
-
-
-#: Months in which clocks go back from summer time, north and south (common practice).
-CLOCK_BACK_MONTHS = (3, 4, 9, 10, 11)
-
-
-def clock_change_hint(adjacent: bool, month: int) -> str:
-    """A hint when a repeated hour looks like the hour a clock repeats when it goes back
-    from summer time: the two rows follow each other for their site and fall in a month
-    of clock changes (:data:`CLOCK_BACK_MONTHS`); "" otherwise.
-
-    >>> clock_change_hint(True, 10)[:48]
-    '; the clock going back from summer time? Write t'
-    >>> clock_change_hint(True, 7), clock_change_hint(False, 10)
-    ('', '')
-    """
-    if not adjacent or month not in CLOCK_BACK_MONTHS:
-        return ""
-    return ("; the clock going back from summer time? Write the times in the site's "
-            "standard time (utc_offset_h) or with their offset, e.g. 02:00+02:00 then "
-            "02:00+01:00")
+                    + _repeat_hint(sites, t, i, first)
+                    + methours.repeat_hint(moved is not None and bool(moved[i] or moved[first])))
 
 
 def _repeat_hint(sites, t, i, first) -> str:

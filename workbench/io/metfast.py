@@ -32,9 +32,11 @@ commas, doubled quotes, letters beyond ASCII) is made plain by the line reader's
 parser, per chunk (:func:`.linechunks.parsed_cells`).  The rows of the columns read must
 be plain ASCII, every line with the header's number of fields, and for the rows
 themselves every cell a number or a missing-value text (counted for the ledger note as
-the line reader counts them), a known site and a valid timestamp on the hour, each
-site's timestamps all zoned or all naive (per-site tallies of the zone flags,
-:class:`~.metlocate.ZoneTally`), no repeated hour.  An error of one row (the last
+the line reader counts them), a known site and a valid timestamp on the hour (a half
+or quarter hour of a fractional offset moved to the whole UTC hour, :mod:`.methours`,
+with the line reader's one note per site), each site's timestamps all zoned or all
+naive (per-site tallies of the zone flags, :class:`~.metlocate.ZoneTally`), no
+repeated hour.  An error of one row (the last
 conditions) and a line with more fields than the header (``...,3.2,,`` where the header
 ends at 3.2: the line reader's parser refuses the file) it locates itself as the line
 reader does (:mod:`.metlocate`).  For the truly odd files (a quoted cell over several
@@ -64,7 +66,7 @@ import pandas as pd
 from ..errors import InputError
 from ..threads import map_ordered, threads_here
 from ..units import parse_header
-from . import metchecks, metlocate
+from . import metchecks, methours, metlocate
 from .common import join_reasons, release_free_memory
 from .ledger import CodedRows, Ledger
 from .linechunks import (Source, gunzip, header_cells, line_cells, normalise, parsed_cells,
@@ -102,6 +104,7 @@ class _TimeTexts:
         self.text = pd.Index([], dtype=object)
         self.value = np.empty(0, dtype="datetime64[ns]")
         self.aware = np.empty(0, bool)
+        self.zone = np.empty(0, dtype="timedelta64[ns]")    # the zoned texts' offsets
         self._lock = threading.Lock()
 
     def _lookup(self, cats):
@@ -125,23 +128,30 @@ class _TimeTexts:
                 self.text = self.text.append(pd.Index(text.to_numpy(dtype=object)))
                 self.value = np.concatenate([self.value, parsed])
                 self.aware = np.concatenate([self.aware, aware])
-            return where, self.value, self.aware
+                zone = np.zeros(len(text), dtype="timedelta64[ns]")
+                if aware.any():
+                    zone[aware] = methours.zone_offsets(text[aware])
+                self.zone = np.concatenate([self.zone, zone])
+            return where, self.value, self.aware, self.zone
 
     def rows(self, cats, codes, off_ns, site_idx):
-        """End-of-row times [ns] (UTC) of a chunk and the rows whose text carries a zone
-        (None: none does); None when a text is no valid time."""
+        """End-of-row times [ns] (UTC) of a chunk, the rows whose text carries a zone
+        (None: none does) and the offset of each row's clock [ns] (its zone, else its
+        site's); None when a text is no valid time."""
         got = self._lookup(pd.Index(np.asarray(cats, dtype=object)))
         if got is None:
             return None
-        where, value, aware = got
+        where, value, aware, zone = got
         k = where[codes]
         t = value[k]
         zoned = aware[k]
+        clock = off_ns[site_idx]
         if not zoned.any():
-            return t - off_ns[site_idx], None
+            return t - clock, None, clock
         naive = ~zoned
-        t[naive] = t[naive] - off_ns[site_idx[naive]]
-        return t, zoned
+        t[naive] = t[naive] - clock[naive]
+        clock[zoned] = zone[k[zoned]]
+        return t, zoned, clock
 
 
 def read_met_csv_fast(path, catalogue, chunk_bytes=CHUNK_BYTES):
@@ -238,6 +248,9 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
             zones = None if zones is None else tuple(int(x) for x in rows.line_of(zones))
         if not firsts and zones is None:
             got = _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour)
+            if got is not None and got is not _REPEAT:
+                got[1].notes[:0] = methours.move_notes(   # as the line reader: first
+                    list(ids), catalogue.utc_offsets(ids), parser.moved)
             if got is not _REPEAT:
                 return got
         before = any(k[0] in ("site", "time", "hour") for k in firsts)   # checked first
@@ -268,6 +281,8 @@ class _ChunkParser:
                       **{n: "float64" for n in used[2:]}}
         self.hour, self.label, self.convert, self.variables = hour, label, convert, variables
         self.times = _TimeTexts()
+        self.moved = set()        # (site, clock offset [min], zoned) of rows moved
+        self._moved_lock = threading.Lock()
 
     def __call__(self, chunk):
         n_bytes = len(chunk)
@@ -315,11 +330,17 @@ class _ChunkParser:
         got = self.times.rows(tc.categories, tcodes, self.off_ns, site_idx)
         if got is None:
             return self._locate(chunk)
-        t, zoned = got
+        t, zoned, clock = got
         if self.label == "start":
             t = t + self.hour
-        if (t != t.astype("datetime64[h]").astype("datetime64[ns]")).any():
+        measured = t
+        t, off_hour = methours.to_hour_ends(t, clock)   # half/quarter hours: the UTC hour
+        if off_hour.any():
             return self._locate(chunk)
+        if t is not measured:
+            pairs = methours.moved_pairs(site_idx, clock, zoned, t != measured)
+            with self._moved_lock:
+                self.moved |= pairs
         got, words = {}, False
         for name in self.used[2:]:
             v = df[name].to_numpy(dtype=float)

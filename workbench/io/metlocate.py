@@ -33,6 +33,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import InputError
+from . import methours
 from .table import _OFFSET, SAMPLE_MISSING_TEXTS, YEARS, RawTable, parse_iso
 
 
@@ -135,9 +136,13 @@ def suspicious_rows(chunk, names, used, index, off_ns, label, hour):
     if label == "start":
         t = t + hour
     good = ~np.isnat(t)
-    off_hour = good & (t != t.astype("datetime64[h]").astype("datetime64[ns]"))
+    clock = methours.clock_offsets(s.to_numpy(object), aware,
+                                   np.where(site_idx >= 0, off_ns[np.maximum(site_idx, 0)],
+                                            np.timedelta64(0, "ns")))
+    moved, off_hour = methours.to_hour_ends(t, clock)   # as the chunked reader
+    off_hour = good & off_hour
     first(("hour",), off_hour)
-    t[off_hour] = np.datetime64("NaT")
+    t = np.where(good & ~off_hour, moved, np.datetime64("NaT"))
     for name in used[2:]:
         cells = df[name]
         v = pd.to_numeric(cells, errors="coerce").to_numpy(dtype=float)
@@ -222,7 +227,7 @@ def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour
         if zones is not None:
             _raise_zones(path, meta, headers, raw_headers, catalogue, zones, line_text)
         if repeat is not None:
-            _raise_repeat(path, raw_headers, repeat, line_text)
+            _raise_repeat(path, raw_headers, repeat, line_text, catalogue)
         return
     from .common import check_sites
     from .metvars import MET_VARIABLES
@@ -238,23 +243,32 @@ def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour
         _raise_zones(path, meta, headers, raw_headers, catalogue, zones, line_text)
     if label == "start":
         t = t + hour
-    off_hour = (t - t.astype("datetime64[h]").astype("datetime64[ns]")) != np.timedelta64(0, "ns")
+    clock = methours.clock_offsets(tab.frame["time"].to_numpy(object), tab.zoned["time"],
+                                   methours.site_offsets_ns(catalogue.utc_offsets(sites)))
+    _, off_hour = methours.to_hour_ends(t, clock)
     if off_hour.any():                          # as workbench.io.met.check_hours
         i = int(np.flatnonzero(off_hour)[0])
         raise tab.error("timestamp not on the hour", row=i, column="time",
                         value=tab.frame["time"].iloc[i], expected="hourly timestamps (minutes 00)")
     if repeat is not None:
-        _raise_repeat(path, raw_headers, repeat, line_text)
+        _raise_repeat(path, raw_headers, repeat, line_text, catalogue)
     for name in MET_VARIABLES:         # as workbench.io.met._convert (units checked before)
         if tab.has(name):
             tab.numbers(name, missing="samples")
 
 
-def _raise_repeat(path, raw_headers, repeat, line_text):
+def _raise_repeat(path, raw_headers, repeat, line_text, catalogue):
     """The line reader's error for a repeated hour (workbench.io.met.check_hours)."""
-    from .met import clock_change_hint
     line, first = repeat
     value = line_text(line)["time"]
+    moved = False     # was either label moved onto the whole UTC hour (off it as read)?
+    for k in (line, first):
+        cells = line_text(k)
+        zoned = bool(_OFFSET.search(str(cells["time"])))
+        t = parse_iso(pd.Series([str(cells["time"])], dtype=object), zoned)
+        if not zoned:
+            t = t - methours.site_offsets_ns(catalogue.utc_offsets([cells["site"]]))
+        moved = moved or bool((t != t.astype("datetime64[h]").astype("datetime64[ns]"))[0])
     try:
         month = pd.Timestamp(str(value)[:10]).month
     except ValueError:
@@ -262,7 +276,8 @@ def _raise_repeat(path, raw_headers, repeat, line_text):
     raise InputError("duplicate hourly timestamp", file=Path(path), line=line,
                      column=raw_headers["time"], value=value,
                      expected=f"one row per site and hour (also on line {first})"
-                     + clock_change_hint(line == first + 1, month))
+                     + methours.clock_change_hint(line == first + 1, month)
+                     + methours.repeat_hint(moved))
 
 
 class ZoneTally:

@@ -1,0 +1,186 @@
+"""Met time labels onto the whole UTC hours of the met grid.
+
+The met grid is hourly on whole UTC hours (hour-ending).  A site whose ``utc_offset_h``
+has a fractional part (9.5, 5.75, -3.5: real time zones) writes its local hours on the
+half or quarter UTC hour: 2021-06-01T10:00 at +9.5 h ends at 00:30 UTC.  The same
+holds for a zoned label whose offset is fractional (``10:00+09:30``).  Such a label,
+on the whole hour of its own clock, is moved to the nearest whole UTC hour end, a tie
+(exactly half past) to the later hour: +5.75 h 15 min earlier, +9.5 h and -3.5 h
+30 min later.  A label already on the whole UTC hour (10:30 at +9.5 h) stays as it
+is; one on neither (10:20 at a whole-hour site, 10:15 at +9.5 h) stays an error.
+Every such site gets one ledger note (:func:`move_notes`).  All three CSV paths
+(:func:`workbench.io.met.read_met`, :mod:`.metfast`, :mod:`.metlocate`) use these
+functions, so they move, refuse and note alike.  Why the later hour on a tie:
+docs/data_formats.md, section 4.
+"""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+HALF_HOUR = np.timedelta64(30, "m").astype("timedelta64[ns]")
+_ZONE = r"(?:(?P<z>Z)|(?P<sign>[+-])(?P<hh>\d\d)(?::?(?P<mm>\d\d))?)$"
+
+
+def site_offsets_ns(off_h) -> np.ndarray:
+    """UTC offsets [h] as timedelta64[ns] (the readers' own conversion)."""
+    return (np.asarray(off_h, dtype=float) * 3600e9).astype("timedelta64[ns]")
+
+
+def zone_offsets(text) -> np.ndarray:
+    """The offset of zoned ISO 8601 labels (``Z``, ``+09:30``, ``-0330``, ``+05``).
+
+    Parameters
+    ----------
+    text : array_like of str
+        Labels that carry a zone (``table._OFFSET`` matched).
+
+    Returns
+    -------
+    numpy.ndarray of timedelta64[ns]
+        East of UTC positive; 0 for ``Z``.
+    """
+    parts = pd.Series(np.asarray(text, dtype=object), dtype=object).str.extract(_ZONE)
+    hh = pd.to_numeric(parts["hh"], errors="coerce").fillna(0).to_numpy()
+    mm = pd.to_numeric(parts["mm"], errors="coerce").fillna(0).to_numpy()
+    sign = np.where(parts["sign"].to_numpy(dtype=object) == "-", -1, 1)
+    minutes = (sign * (hh * 60 + mm)).astype(np.int64)
+    return minutes.astype("timedelta64[m]").astype("timedelta64[ns]")
+
+
+def clock_offsets(text, zoned, site_off_ns) -> np.ndarray:
+    """The offset of each label's own clock [timedelta64[ns]]: its zone where it carries
+    one (`zoned`), else its site's (`site_off_ns`, per row)."""
+    out = np.asarray(site_off_ns, dtype="timedelta64[ns]").copy()
+    zoned = np.asarray(zoned, bool)
+    if zoned.any():
+        out[zoned] = zone_offsets(np.asarray(text, dtype=object)[zoned])
+    return out
+
+
+def _floor_hour(t):
+    return t.astype("datetime64[h]").astype("datetime64[ns]")
+
+
+def to_hour_ends(t, clock_off):
+    """Move hour ends onto the whole UTC hour.
+
+    Parameters
+    ----------
+    t : numpy.ndarray of datetime64[ns]
+        End of each row's hour [UTC] (after a ``start`` label's hour is added).
+    clock_off : numpy.ndarray of timedelta64[ns]
+        The offset of each label's clock (:func:`clock_offsets`).
+
+    Returns
+    -------
+    moved : numpy.ndarray of datetime64[ns]
+        The nearest whole UTC hour, a tie to the later one; `t` where off the hour.
+    off_hour : numpy.ndarray of bool
+        The label is neither on the whole UTC hour nor on the whole hour of its own
+        clock (an error).
+    """
+    t = np.asarray(t, dtype="datetime64[ns]")
+    off_hour = t != _floor_hour(t)
+    if not (clock_off % np.timedelta64(1, "h")).any():       # whole-hour clocks only
+        return t, off_hour
+    clock = t + clock_off            # a label on the UTC hour (10:30 at +9.5 h) stays
+    off_hour &= clock != _floor_hour(clock)
+    moved = np.where(off_hour, t, _floor_hour(t + HALF_HOUR))
+    return moved, off_hour
+
+
+def shift_minutes(clock_off) -> np.ndarray:
+    """Minutes [int] each on-hour label of a clock is moved (later positive)."""
+    past = (-np.asarray(clock_off, "timedelta64[ns]")) % np.timedelta64(1, "h")
+    past = (past // np.timedelta64(1, "m")).astype(int)       # minutes past the UTC hour
+    return np.where(past == 0, 0, np.where(past >= 30, 60 - past, -past))
+
+
+def _zone_text(off_min: int) -> str:
+    hh, mm = divmod(abs(int(off_min)), 60)
+    return f"{'+' if off_min >= 0 else '-'}{hh:02d}:{mm:02d}"
+
+
+def _moved_text(shift: int) -> str:
+    return f"{abs(shift)} min {'later' if shift > 0 else 'earlier'}"
+
+
+def move_notes(site_ids, site_off_h, pairs) -> list[str]:
+    """One ledger note per site whose hours were moved.
+
+    Parameters
+    ----------
+    site_ids : sequence of str
+        Catalogue ids, in catalogue order (the notes' order).
+    site_off_h : sequence of float
+        Their ``utc_offset_h`` [h].
+    pairs : iterable of (int, int, bool)
+        (catalogue position, clock offset [min], zoned) of the moved labels (repeats
+        allowed).
+
+    Returns
+    -------
+    list of str
+    """
+    by_site = {}
+    for s, off_min, zoned in set(pairs):
+        by_site.setdefault(int(s), set()).add((bool(zoned), int(off_min)))
+    notes = []
+    for s in sorted(by_site):
+        sid = site_ids[s]
+        parts = []
+        for zoned, off_min in sorted(by_site[s], key=lambda p: (p[0], -p[1])):
+            shift = int(shift_minutes(np.array([off_min], "timedelta64[m]"))[0])
+            past = (-off_min) % 60
+            where = ("on the half UTC hour" if past == 30
+                     else f"at {past} min past the UTC hour")
+            who = (f"labels at {_zone_text(off_min)} put the hours" if zoned else
+                   f"utc_offset_h {float(site_off_h[s]):g} puts the local hours")
+            parts.append(f"{who} {where}; each hour moved {_moved_text(shift)} to the "
+                         f"nearest UTC hour end (the sun and the sample periods see the hour "
+                         f"{_moved_text(shift)} than it was measured)")
+        notes.append(f"met {sid}: " + "; ".join(parts))
+    return notes
+
+
+def moved_pairs(site_idx, clock_off, zoned, moved):
+    """The (site, clock offset [min], zoned) of the moved rows, each once."""
+    if not np.asarray(moved).any():
+        return set()
+    m = np.asarray(moved, bool)
+    z = np.zeros(len(m), bool) if zoned is None else np.asarray(zoned, bool)
+    minutes = (np.asarray(clock_off)[m] // np.timedelta64(1, "m")).astype(np.int64)
+    frame = pd.DataFrame({"s": np.asarray(site_idx)[m], "o": minutes,
+                          "z": z[m]}).drop_duplicates()
+    return set(zip(frame["s"].tolist(), frame["o"].tolist(), frame["z"].tolist()))
+
+
+def repeat_hint(moved_either: bool) -> str:
+    """The hint of a repeated hour that the move made (two labels, one UTC hour end)."""
+    if not moved_either:
+        return ""
+    return ("; a label on the half or quarter UTC hour (utc_offset_h or its zone) is "
+            "moved to the nearest whole UTC hour end, and these two labels land on the same "
+            "one: write a site's hours on the whole hours of one clock")
+
+
+#: Months in which clocks go back from summer time, north and south (common practice).
+CLOCK_BACK_MONTHS = (3, 4, 9, 10, 11)
+
+
+def clock_change_hint(adjacent: bool, month: int) -> str:
+    """A hint when a repeated hour looks like the hour a clock repeats when it goes back
+    from summer time: the two rows follow each other for their site and fall in a month
+    of clock changes (:data:`CLOCK_BACK_MONTHS`); "" otherwise.
+
+    >>> clock_change_hint(True, 10)[:48]
+    '; the clock going back from summer time? Write t'
+    >>> clock_change_hint(True, 7), clock_change_hint(False, 10)
+    ('', '')
+    """
+    if not adjacent or month not in CLOCK_BACK_MONTHS:
+        return ""
+    return ("; the clock going back from summer time? Write the times in the site's "
+            "standard time (utc_offset_h) or with their offset, e.g. 02:00+02:00 then "
+            "02:00+01:00")
