@@ -312,20 +312,19 @@ def test_weekly_sample_at_half_hour_site_and_its_met_hours(tmp_path, cat):
     a, b = _hour_bounds(times, samples["start"].values, samples["end"].values)
     assert int(b[0] - a[0]) == 168
     assert rain[a[0]] == 5.0 and np.isclose(rain[a[0]:b[0]].sum(), 5.0 + 167)
-    # the gauge comparison sums the whole grid hours inside: 167 of the 168 measured
-    # hours (the last one lies half outside), so it counts one hour missing and does not
-    # judge such a sample (docs/data_formats.md, section 4)
+    # the gauge comparison takes the same hours (wet.hourly.window_sums: an hour whose
+    # middle lies in the window); before, it summed the whole grid hours inside, 167 of
+    # 168, counted one missing and so never judged a sample of such a site
     g = gauge_comparison(met, samples)
-    assert np.isclose(g["met_depth"].iloc[0], 167.0)
-    assert int(g["met_hours_missing"].iloc[0]) == 1 and not g["suspicious"].iloc[0]
+    assert np.isclose(g["met_depth"].iloc[0], 5.0 + 167.0)
+    assert int(g["met_hours_missing"].iloc[0]) == 0
 
 
 def test_weekly_sample_at_quarter_hour_site_and_its_met_hours(tmp_path, cat):
     # +5.75 h: 09:00 local = 03:15 UTC; the measured hours move 15 min earlier, to the
     # grid hours ending 04:00 (06-01) ... 03:00 (06-08), whose middles (03:30 ... 02:30)
-    # lie inside [06-01 03:15, 06-08 03:15): the dry chain takes exactly the sample's
-    # hours; the gauge comparison leaves out the first (grid 03:00-04:00 starts before
-    # 03:15).
+    # lie inside [06-01 03:15, 06-08 03:15): the dry chain and the gauge comparison
+    # take exactly the sample's hours.
     from workbench.dryflux import _hour_bounds
     from workbench.io.metchecks import gauge_comparison
     samples, met = _sample_case(tmp_path, cat, "marten")
@@ -334,8 +333,8 @@ def test_weekly_sample_at_quarter_hour_site_and_its_met_hours(tmp_path, cat):
     a, b = _hour_bounds(met["time"].values, samples["start"].values, samples["end"].values)
     assert int(b[0] - a[0]) == 168 and (rain[a[0]:b[0]] == 1.0).all()
     g = gauge_comparison(met, samples)
-    assert np.isclose(g["met_depth"].iloc[0], 167.0)
-    assert int(g["met_hours_missing"].iloc[0]) == 1
+    assert np.isclose(g["met_depth"].iloc[0], 168.0)
+    assert int(g["met_hours_missing"].iloc[0]) == 0
 
 
 def test_engine_sun_of_a_moved_hour_is_the_sun_of_its_utc_hour(tmp_path, cat):

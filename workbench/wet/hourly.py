@@ -15,6 +15,7 @@ import pandas as pd
 import xarray as xr
 
 _ONE_HOUR = np.timedelta64(1, "h")
+_HALF_HOUR = np.timedelta64(30, "m")
 
 
 def site_positions(sample_sites, met_sites) -> np.ndarray:
@@ -47,10 +48,15 @@ def window_sums(values: xr.DataArray, site_pos, starts, ends):
     n_valid : ndarray of int
         Hours with a finite value in the window.
     n_hours : ndarray of int
-        Whole hours in the window, :math:`\\lfloor (e - s)/1\\,h \\rfloor`.
+        Hours of the window: the hours whose middle lies in ``[start, end)``
+        (:math:`(e - s)/1\\,h` for windows on whole hours).
 
     Notes
     -----
+    An hour belongs to the window when its middle does, as in the dry chain: for
+    windows on whole hours these are the hours inside it; a window with edges on the
+    half hour (a site of a fractional UTC offset, whose met hours were moved to the
+    whole UTC hour) takes its 168 hours a week, each half inside, not 167.
     A record out of time order is sorted first (a time stamp given twice is an error).
     With :math:`C_k = \\sum_{j<k} x_j` (NaN counted as 0), the sum over hours
     :math:`k_0 \\le k < k_1` is :math:`C_{k_1} - C_{k_0}`.
@@ -74,15 +80,19 @@ def window_sums(values: xr.DataArray, site_pos, starts, ends):
                          np.cumsum(valid, axis=1)], axis=1)
     s = np.asarray(starts, dtype="datetime64[ns]")
     e = np.asarray(ends, dtype="datetime64[ns]")
-    lo = np.searchsorted(times, s + _ONE_HOUR, side="left")
-    hi = np.maximum(np.searchsorted(times, e, side="right"), lo)
+    # hour ends t whose middle t - 30 min lies in [s, e): t in [s + 30 min, e + 30 min)
+    lo = np.searchsorted(times, s + _HALF_HOUR, side="left")
+    hi = np.maximum(np.searchsorted(times, e + _HALF_HOUR, side="left"), lo)
     pos = np.asarray(site_pos)
     has = pos >= 0
     p = np.where(has, pos, 0)
     total = np.where(has, cs[p, hi] - cs[p, lo], np.nan) if v.shape[0] else \
         np.full(len(s), np.nan)
     n_valid = np.where(has, cn[p, hi] - cn[p, lo], 0) if v.shape[0] else np.zeros(len(s), int)
-    n_hours = np.floor((e - s) / _ONE_HOUR).astype(int)
+    h = _ONE_HOUR.astype("timedelta64[ns]").astype(np.int64)
+    first = -((-(s + _HALF_HOUR).astype(np.int64)) // h)         # ceil, in hours
+    last = -((-(e + _HALF_HOUR).astype(np.int64)) // h)
+    n_hours = np.maximum(last - first, 0).astype(int)
     return total, n_valid.astype(int), n_hours
 
 
