@@ -3,7 +3,6 @@ with the status counts of its budgets (before, a span of years without any data 
 twelve files of missing budgets and printed only their names)."""
 import numpy as np
 import pandas as pd
-import pytest
 
 from workbench.cli import main, status_lines
 from workbench.preflight import coverage_notes, input_spans

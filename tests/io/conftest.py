@@ -39,3 +39,14 @@ def cat(tmp_path):
     from workbench.io import read_sites
     (tmp_path / "sites.toml").write_text(SITES)
     return read_sites(tmp_path / "sites.toml")
+
+
+@pytest.fixture(params=["fast", "line"])
+def met_reader(request, monkeypatch):
+    """``read_met`` through each CSV reader: the chunked one, and the line-by-line one
+    (the chunked reader declined) it hands odd files to."""
+    import workbench.io.metfast as metfast
+    from workbench.io import read_met
+    if request.param == "line":
+        monkeypatch.setattr(metfast, "read_met_csv_fast", lambda *a, **k: None)
+    return read_met

@@ -5,9 +5,7 @@ from __future__ import annotations
 import pandas as pd
 import pytest
 
-import workbench.io.metfast as metfast
 from workbench.errors import InputError
-from workbench.io import read_met
 from tiny_inputs import plausible_met_csv
 
 HINT = "the clock going back from summer time?"
@@ -25,28 +23,21 @@ def _local_clock(tmp_path, start_utc, zone="Europe/Amsterdam"):
     return p
 
 
-@pytest.fixture(params=["fast", "line"])
-def reader(request, monkeypatch):
-    if request.param == "line":
-        monkeypatch.setattr(metfast, "read_met_csv_fast", lambda *a, **k: None)
-    return read_met
-
-
-def test_repeated_hour_at_the_autumn_change_is_named(tmp_path, cat, reader):
+def test_repeated_hour_at_the_autumn_change_is_named(tmp_path, cat, met_reader):
     # 2020-10-25: 03:00 CEST -> 02:00 CET, so 02:00 (hour end) is written twice
     p = _local_clock(tmp_path, "2020-10-24T00:00")
     with pytest.raises(InputError) as exc:
-        reader(p, cat)
+        met_reader(p, cat)
     msg = str(exc.value)
     assert "line 27, column 'time': duplicate hourly timestamp: got '2020-10-25T02:00'" in msg
     assert "(also on line 26); " + HINT in msg and "02:00+02:00 then 02:00+01:00" in msg
 
 
-def test_repeated_hour_elsewhere_has_no_clock_hint(tmp_path, cat, reader):
+def test_repeated_hour_elsewhere_has_no_clock_hint(tmp_path, cat, met_reader):
     p = plausible_met_csv(tmp_path)
     df = pd.read_csv(p)
     df = pd.concat([df, df.iloc[[40]]])           # a row uploaded twice, at the end
     df.to_csv(p, index=False)
     with pytest.raises(InputError) as exc:
-        reader(p, cat)
+        met_reader(p, cat)
     assert "duplicate hourly timestamp" in str(exc.value) and HINT not in str(exc.value)

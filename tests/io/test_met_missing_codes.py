@@ -10,9 +10,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pytest
-import xarray as xr
 
-import workbench.io.metfast as metfast
 from workbench.io import read_met
 from workbench.io.metchecks import missing_codes
 from tiny_inputs import ledger_reasons, plausible_met_csv
@@ -28,14 +26,6 @@ def _edit(tmp_path, column, value, hour=12, **cols):
     return p
 
 
-@pytest.fixture(params=["fast", "line"])
-def reader(request, monkeypatch):
-    """Both CSV readers: the chunked one and the line-by-line one it may decline to."""
-    if request.param == "line":
-        monkeypatch.setattr(metfast, "read_met_csv_fast", lambda *a, **k: None)
-    return read_met
-
-
 @pytest.mark.parametrize("column, value, text", [
     ("solar_radiation [W/m2]", 9999, "solar radiation 9999 W/m2"),
     ("temperature [degC]", -999.0, "temperature -999 degC"),
@@ -44,8 +34,8 @@ def reader(request, monkeypatch):
     ("wind_speed [m/s]", 999.9, "wind speed 999.9 m/s"),
     ("precipitation [mm]", -9999.0, "precipitation -9999 mm"),
 ])
-def test_one_code_masks_one_hour_with_its_reason(tmp_path, cat, reader, column, value, text):
-    met, led = reader(_edit(tmp_path, column, value), cat)
+def test_one_code_masks_one_hour_with_its_reason(tmp_path, cat, met_reader, column, value, text):
+    met, led = met_reader(_edit(tmp_path, column, value), cat)
     name = column.split(" [")[0]
     v = met[name].values.ravel()
     assert np.isnan(v).sum() == 1 and np.isnan(v[12])
@@ -53,34 +43,34 @@ def test_one_code_masks_one_hour_with_its_reason(tmp_path, cat, reader, column, 
     assert led.summary()["accepted"].iloc[0] + led.summary()["flagged"].iloc[0] == N
 
 
-def test_one_radiation_code_leaves_the_rest_of_the_site(tmp_path, cat, reader):
+def test_one_radiation_code_leaves_the_rest_of_the_site(tmp_path, cat, met_reader):
     """Before, one 9999 raised the site's maximum above 1500 W/m2 and masked its whole
     radiation record as a unit slip."""
-    met, _ = reader(_edit(tmp_path, "solar_radiation [W/m2]", 9999), cat)
+    met, _ = met_reader(_edit(tmp_path, "solar_radiation [W/m2]", 9999), cat)
     assert np.isfinite(met["solar_radiation"].values).sum() == N - 1
 
 
-def test_one_radiation_spike_is_one_masked_hour(tmp_path, cat, reader):
-    met, led = reader(_edit(tmp_path, "solar_radiation [W/m2]", 1600.0), cat)
+def test_one_radiation_spike_is_one_masked_hour(tmp_path, cat, met_reader):
+    met, led = met_reader(_edit(tmp_path, "solar_radiation [W/m2]", 1600.0), cat)
     assert np.isfinite(met["solar_radiation"].values).sum() == N - 1
     assert ledger_reasons(led) == {"solar_radiation outside -20..1500 W/m2 (masked)"}
 
 
-def test_radiation_in_another_unit_still_masks_the_site(tmp_path, cat, reader):
+def test_radiation_in_another_unit_still_masks_the_site(tmp_path, cat, met_reader):
     p = plausible_met_csv(tmp_path)
     df = pd.read_csv(p)
     df["solar_radiation [W/m2]"] *= 3.6      # kJ/m2 per hour under a W/m2 header
     df.to_csv(p, index=False)
-    met, led = reader(p, cat)
+    met, led = met_reader(p, cat)
     assert np.isnan(met["solar_radiation"].values).all()
     assert any("at many hours of this site: unit likely not W/m2" in r
                for r in ledger_reasons(led))
 
 
-def test_sensible_heat_code_inside_the_range_is_masked(tmp_path, cat, reader):
+def test_sensible_heat_code_inside_the_range_is_masked(tmp_path, cat, met_reader):
     """-99 W/m2 lies inside the hard range (-600..1200): before, it entered as data."""
     p = _edit(tmp_path, "sensible_heat_flux [W/m2]", -99.0, **{"sensible_heat_flux [W/m2]": -45.0})
-    met, led = reader(p, cat)
+    met, led = met_reader(p, cat)
     h = met["sensible_heat_flux"].values.ravel()
     assert np.isnan(h[12]) and np.isnan(h).sum() == 1 and np.nanmax(h) == -45.0
     assert ledger_reasons(led) == {
@@ -89,14 +79,14 @@ def test_sensible_heat_code_inside_the_range_is_masked(tmp_path, cat, reader):
 
 @pytest.mark.parametrize("column, value", [("pressure [hPa]", 999.9),
                                            ("solar_radiation [W/m2]", 999.9)])
-def test_positive_code_inside_the_range_is_data(tmp_path, cat, reader, column, value):
-    met, led = reader(_edit(tmp_path, column, value), cat)
+def test_positive_code_inside_the_range_is_data(tmp_path, cat, met_reader, column, value):
+    met, led = met_reader(_edit(tmp_path, column, value), cat)
     v = met[column.split(" [")[0]].values.ravel()
     assert v[12] == pytest.approx(value * (100.0 if "hPa" in column else 1.0))
     assert not any("missing-value code" in r for r in ledger_reasons(led))
 
 
-def test_fraction_humidity_code_masks_one_hour_not_the_month(tmp_path, cat, reader):
+def test_fraction_humidity_code_masks_one_hour_not_the_month(tmp_path, cat, met_reader):
     """A fraction column with one 999.9: before, the month's maximum said "looks like %"
     and masked the whole month."""
     p = plausible_met_csv(tmp_path)
@@ -104,7 +94,7 @@ def test_fraction_humidity_code_masks_one_hour_not_the_month(tmp_path, cat, read
     df["relative_humidity [1]"] = 0.7
     df.loc[12, "relative_humidity [1]"] = 999.9
     df.to_csv(p, index=False)
-    met, led = reader(p, cat)
+    met, led = met_reader(p, cat)
     assert np.isfinite(met["relative_humidity"].values).sum() == N - 1
     assert ledger_reasons(led) == {
         "relative humidity 999.9 1 looks like a missing-value code (masked)"}

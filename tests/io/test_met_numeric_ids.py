@@ -7,7 +7,6 @@ ended in a traceback instead of the located message.
 """
 from __future__ import annotations
 
-import numpy as np
 import pandas as pd
 import pytest
 import xarray as xr
