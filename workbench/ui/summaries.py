@@ -228,7 +228,10 @@ def local_hour_and_season(times, utc_offset_h: float):
         ``DJF``, ``MAM``, ``JJA`` or ``SON`` of the local date.
     """
     mid = pd.DatetimeIndex(np.asarray(times, "datetime64[ns]") - HALF_HOUR)
-    local = mid + pd.to_timedelta(float(utc_offset_h), unit="h")
+    # at a fractional offset (+9.5 h) the readers moved each measured hour 15 or 30 min
+    # to the whole UTC hour, so its middle can fall on a local whole hour (10:00 for the
+    # hour measured 09:00-10:00): the instant before it keeps the hour measured
+    local = mid + pd.to_timedelta(float(utc_offset_h), unit="h") - pd.Timedelta(1, "ns")
     return local.hour.to_numpy(), MONTH_SEASON[local.month.to_numpy()]
 
 
