@@ -20,9 +20,10 @@ from . import graph as _graph
 from . import species as _species
 from .budget import COMPONENTS, PAIRS, BudgetError, BudgetOptions
 from .budgetstatus import bracket_velocities
-from .dryflux import (_count_cumulative, _hour_bounds, _inputs_for, deposition_rows, fill_diurnal,
+from .dryflux import (_count_cumulative, _inputs_for, deposition_rows, fill_diurnal,
                       period_axes, period_mean, share_to_periods)
 from .drypairs import apply_split, bracket_variables, combined_notes, split_pairs
+from .periods import hour_bounds
 
 
 def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=7,
@@ -379,7 +380,7 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
     filled_share = np.full((n_s, n_r, n_p, n_k), np.nan)
     conc = np.full((n_s, n_p, n_k), np.nan)
     axes = period_axes(periods)                 # the columns read once
-    pa, pb = _hour_bounds(times, axes.start, axes.end)
+    pa, pb = hour_bounds(times, axes.start, axes.end)
     hours_p = axes.hours
 
     def agg(name, r):

@@ -25,6 +25,7 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
+from .periods import hour_bounds
 from .units import molar_density_air
 
 HOUR_S = 3600.0
@@ -188,12 +189,6 @@ def _count_cumulative(mask):
     return out
 
 
-def _hour_bounds(times, starts, ends):
-    """Index range [a, b) of the hours whose midpoint lies in [start, end)."""
-    mid = times - _HALF_HOUR
-    return np.searchsorted(mid, starts, side="left"), np.searchsorted(mid, ends, side="left")
-
-
 def _censored_values(air, species, how):
     v = air[species].values.astype(float)
     c = air[f"{species}_censored"].values if f"{species}_censored" in air else np.zeros(len(v), bool)
@@ -288,7 +283,7 @@ def deposition_rows(conc, quantity, site_index, starts, ends, times, vd, n_air=N
         eff = eff * n_air[:, None, :]
     finite = np.isfinite(eff)
     cs = _cumulative(eff, finite)
-    a, b = _hour_bounds(times, starts, ends)
+    a, b = hour_bounds(times, starts, ends)
     total = cs[site_index, :, b] - cs[site_index, :, a]
     if finite.all():        # every hour counts: the count of [a, b) is b - a
         n_valid = np.repeat((b - a).astype(float)[:, None], eff.shape[1], axis=1)
@@ -448,7 +443,7 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
     periods = period_axes(periods)
     n_r, n_p = cs.shape[1], len(periods)
     p_start, p_end = periods.start, periods.end
-    pa, pb = _hour_bounds(times, p_start, p_end)
+    pa, pb = hour_bounds(times, p_start, p_end)
     dep_out = np.zeros((n_sites, n_r, n_p))
     cov_hours = np.zeros((n_sites, n_p))
     flux_hours = np.zeros((n_sites, n_r, n_p))

@@ -34,6 +34,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from .constants import HALF_HOUR
+
 #: Reporting resolutions understood by :func:`make_periods`.
 RESOLUTIONS = ("month", "season", "year", "hydro_year", "custom")
 #: Meteorological seasons (common practice) and the month each starts in.
@@ -299,6 +301,35 @@ def overlap_matrix(starts, ends, periods: pd.DataFrame) -> np.ndarray:
     out = np.zeros((n, len(periods)))
     np.add.at(out, (table["interval"].values, table["period"].values), table["fraction"].values)
     return out
+
+
+def hour_bounds(times, starts, ends):
+    """Index range [a, b) of the hours whose middle lies in [start, end).
+
+    The one rule by which the wet and dry chains take the hours of a sample, an air
+    period or a reporting period: for windows on whole hours, the hours inside them.
+
+    Parameters
+    ----------
+    times : numpy.ndarray of datetime64
+        Hour ends, in time order. [UTC]
+    starts, ends : array_like of datetime64
+        The windows. [UTC]
+
+    Returns
+    -------
+    a, b : numpy.ndarray of int
+        Positions in `times`.
+
+    Examples
+    --------
+    >>> t = np.arange(1, 5).astype("datetime64[h]")            # hours ending 01:00-04:00
+    >>> [x.tolist() for x in hour_bounds(t, t[:1] - 1, t[2:3])]  # [00:00, 03:00)
+    [[0], [3]]
+    """
+    mid = np.asarray(times) - HALF_HOUR
+    return (np.searchsorted(mid, np.asarray(starts), side="left"),
+            np.searchsorted(mid, np.asarray(ends), side="left"))
 
 
 def assign_hours(times, periods: pd.DataFrame, label: str = "end") -> np.ndarray:

@@ -299,7 +299,7 @@ def test_weekly_sample_at_half_hour_site_and_its_met_hours(tmp_path, cat):
     # before, not moved.  Its 168 measured hours are on the grid as the hours ending
     # 01:00 UTC (06-01) ... 00:00 UTC (06-08), each 30 min later than measured, so the
     # sample's edges fall on the middle of a grid hour.
-    from workbench.dryflux import _hour_bounds
+    from workbench.periods import hour_bounds as _hour_bounds
     from workbench.io.metchecks import gauge_comparison
     samples, met = _sample_case(tmp_path, cat)
     assert str(samples["start"].values[0])[:16] == "2021-05-31T23:30"
@@ -325,7 +325,7 @@ def test_weekly_sample_at_quarter_hour_site_and_its_met_hours(tmp_path, cat):
     # grid hours ending 04:00 (06-01) ... 03:00 (06-08), whose middles (03:30 ... 02:30)
     # lie inside [06-01 03:15, 06-08 03:15): the dry chain and the gauge comparison
     # take exactly the sample's hours.
-    from workbench.dryflux import _hour_bounds
+    from workbench.periods import hour_bounds as _hour_bounds
     from workbench.io.metchecks import gauge_comparison
     samples, met = _sample_case(tmp_path, cat, "marten")
     assert str(samples["start"].values[0])[:16] == "2021-06-01T03:15"

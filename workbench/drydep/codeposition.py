@@ -184,7 +184,8 @@ def period_values_on_hours(air, species, values, times, sites):
     numpy.ndarray
         (site, time).
     """
-    from ..dryflux import _hour_bounds, select_samplers
+    from ..dryflux import select_samplers
+    from ..periods import hour_bounds
     n_s, n_t = len(sites), len(times)
     out = np.full((n_s, n_t), np.nan)
     if species not in air or air.sizes.get("period", 0) == 0:
@@ -194,7 +195,7 @@ def period_values_on_hours(air, species, values, times, sites):
     ok = used & np.isfinite(values) & (si >= 0)
     if not ok.any():
         return out
-    a, b = _hour_bounds(np.asarray(times), air["start"].values[ok], air["end"].values[ok])
+    a, b = hour_bounds(np.asarray(times), air["start"].values[ok], air["end"].values[ok])
     total = np.zeros((n_s, n_t + 1))
     count = np.zeros((n_s, n_t + 1))
     for arr, v in ((total, values[ok]), (count, np.ones(int(ok.sum())))):

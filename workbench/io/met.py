@@ -126,7 +126,7 @@ def check_hours(sites, t, where, name_row, off_hour=None, moved=None):
         Rows moved onto the whole UTC hour (a repeat they make gets a hint).
     """
     if off_hour is None:
-        off_hour = t != t.astype("datetime64[h]").astype("datetime64[ns]")
+        off_hour = t != methours.floor_hour(t)
     if off_hour.any():
         raise where(int(np.flatnonzero(off_hour)[0]), "timestamp not on the hour",
                     "hourly timestamps (minutes 00)")

@@ -276,7 +276,7 @@ class _ChunkParser:
         self.names, self.used, self.units = names, used, units
         self.used_at = {names.index(c) for c in used}
         self.index = {s: i for i, s in enumerate(ids)}
-        self.off_ns = (catalogue.utc_offsets(ids) * 3600e9).astype("timedelta64[ns]")
+        self.off_ns = methours.site_offsets_ns(catalogue.utc_offsets(ids))
         self.dtype = {"site": "category", "time": "category",
                       **{n: "float64" for n in used[2:]}}
         self.hour, self.label, self.convert, self.variables = hour, label, convert, variables

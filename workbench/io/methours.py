@@ -18,7 +18,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-HALF_HOUR = np.timedelta64(30, "m").astype("timedelta64[ns]")
+from ..constants import HALF_HOUR
 _ZONE = r"(?:(?P<z>Z)|(?P<sign>[+-])(?P<hh>\d\d)(?::?(?P<mm>\d\d))?)$"
 
 
@@ -58,8 +58,9 @@ def clock_offsets(text, zoned, site_off_ns) -> np.ndarray:
     return out
 
 
-def _floor_hour(t):
-    return t.astype("datetime64[h]").astype("datetime64[ns]")
+def floor_hour(t):
+    """The whole UTC hour at or before each time [datetime64[ns]]."""
+    return np.asarray(t).astype("datetime64[h]").astype("datetime64[ns]")
 
 
 def to_hour_ends(t, clock_off):
@@ -81,12 +82,12 @@ def to_hour_ends(t, clock_off):
         clock (an error).
     """
     t = np.asarray(t, dtype="datetime64[ns]")
-    off_hour = t != _floor_hour(t)
+    off_hour = t != floor_hour(t)
     if not (clock_off % np.timedelta64(1, "h")).any():       # whole-hour clocks only
         return t, off_hour
     clock = t + clock_off            # a label on the UTC hour (10:30 at +9.5 h) stays
-    off_hour &= clock != _floor_hour(clock)
-    moved = np.where(off_hour, t, _floor_hour(t + HALF_HOUR))
+    off_hour &= clock != floor_hour(clock)
+    moved = np.where(off_hour, t, floor_hour(t + HALF_HOUR))
     return moved, off_hour
 
 

@@ -268,7 +268,7 @@ def _raise_repeat(path, raw_headers, repeat, line_text, catalogue):
         t = parse_iso(pd.Series([str(cells["time"])], dtype=object), zoned)
         if not zoned:
             t = t - methours.site_offsets_ns(catalogue.utc_offsets([cells["site"]]))
-        moved = moved or bool((t != t.astype("datetime64[h]").astype("datetime64[ns]"))[0])
+        moved = moved or bool((t != methours.floor_hour(t))[0])
     try:
         month = pd.Timestamp(str(value)[:10]).month
     except ValueError:

@@ -2,8 +2,8 @@
 
 Hourly records carry the END of their hour as time stamp (``docs/data_model.md``):
 the record stamped *t* covers ``[t - 1 h, t)``.  A window ``[s, e)`` holds the hours
-with :math:`s + 1\\,h \\le t \\le e`; hours cut by a window edge are left out
-(sample changes are normally on the hour).
+whose middle lies in it (:func:`workbench.periods.hour_bounds`, as the dry chain): for
+windows on whole hours :math:`s + 1\\,h \\le t \\le e`.
 
 All sums use cumulative sums along time and binary search, so any number of
 windows costs one pass over the hourly record (no loop over samples or hours).
@@ -14,8 +14,10 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
+from ..constants import HALF_HOUR
+from ..periods import hour_bounds
+
 _ONE_HOUR = np.timedelta64(1, "h")
-_HALF_HOUR = np.timedelta64(30, "m")
 
 
 def site_positions(sample_sites, met_sites) -> np.ndarray:
@@ -80,9 +82,8 @@ def window_sums(values: xr.DataArray, site_pos, starts, ends):
                          np.cumsum(valid, axis=1)], axis=1)
     s = np.asarray(starts, dtype="datetime64[ns]")
     e = np.asarray(ends, dtype="datetime64[ns]")
-    # hour ends t whose middle t - 30 min lies in [s, e): t in [s + 30 min, e + 30 min)
-    lo = np.searchsorted(times, s + _HALF_HOUR, side="left")
-    hi = np.maximum(np.searchsorted(times, e + _HALF_HOUR, side="left"), lo)
+    lo, hi = hour_bounds(times, s, e)                  # the hours whose middle is inside
+    hi = np.maximum(hi, lo)
     pos = np.asarray(site_pos)
     has = pos >= 0
     p = np.where(has, pos, 0)
@@ -90,8 +91,8 @@ def window_sums(values: xr.DataArray, site_pos, starts, ends):
         np.full(len(s), np.nan)
     n_valid = np.where(has, cn[p, hi] - cn[p, lo], 0) if v.shape[0] else np.zeros(len(s), int)
     h = _ONE_HOUR.astype("timedelta64[ns]").astype(np.int64)
-    first = -((-(s + _HALF_HOUR).astype(np.int64)) // h)         # ceil, in hours
-    last = -((-(e + _HALF_HOUR).astype(np.int64)) // h)
+    first = -((-(s + HALF_HOUR).astype(np.int64)) // h)          # ceil, in hours
+    last = -((-(e + HALF_HOUR).astype(np.int64)) // h)
     n_hours = np.maximum(last - first, 0).astype(int)
     return total, n_valid.astype(int), n_hours
 
