@@ -45,7 +45,8 @@ from workbench import constants as C
 from workbench.drydep import micromet as M, receptors as R, wesely1989 as W, zhang_tables as Z
 from workbench.species import get as species
 from workbench.surface import energy_balance as EB
-from workbench.surface.air import standard_pressure_at
+from workbench.surface.air import (FAO56_CP_MOIST_AIR, FAO56_EPSILON, FAO56_LATENT_HEAT,
+                                   standard_pressure_at)
 
 NAN = float("nan")
 INF = float("inf")
@@ -73,7 +74,7 @@ def build(jit=None):
     K, G, CP, R = C.VON_KARMAN, C.GRAVITY, C.CP_DRY_AIR, C.GAS_CONSTANT
     MD, T0C = C.MOLAR_MASS_DRY_AIR, C.ZERO_CELSIUS
     MU0, TS, SS = C.SUTHERLAND_MU_REF, C.SUTHERLAND_T_REF, C.SUTHERLAND_S
-    EPS = C.MOLAR_MASS_WATER / C.MOLAR_MASS_DRY_AIR
+    GAMMA_PER_P = FAO56_CP_MOIST_AIR / (FAO56_EPSILON * FAO56_LATENT_HEAT)  # FAO-56 Eq. 8
     GAM, BA, BB, BC, BD = (C.BUSINGER_DYER_GAMMA, C.BELJAARS_HOLTSLAG_A, C.BELJAARS_HOLTSLAG_B,
                            C.BELJAARS_HOLTSLAG_C, C.BELJAARS_HOLTSLAG_D)
     so2, h2o = species("SO2"), species("H2O")
@@ -117,7 +118,7 @@ def build(jit=None):
         t_c = temp - T0C
         e_s = C.MAGNUS_A * math.exp(C.MAGNUS_B * t_c / (t_c + C.MAGNUS_C))
         slope_es = e_s * C.MAGNUS_B * C.MAGNUS_C / (t_c + C.MAGNUS_C) ** 2
-        ratio = (CP * p / (EPS * C.LATENT_HEAT_VAPORIZATION)) / slope_es
+        ratio = GAMMA_PER_P * p / slope_es
         diff = D0_SO2 * (C.STANDARD_PRESSURE / p) * (temp / T0C) ** 1.81
         sc_term = ((nu / diff) / C.PRANDTL_AIR) ** (2.0 / 3.0)
         valid_cat = cat == cat and abs(cat) != INF

@@ -6,9 +6,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..constants import (CP_DRY_AIR, GAS_CONSTANT, LATENT_HEAT_VAPORIZATION, MAGNUS_A,
-                         MAGNUS_B, MAGNUS_C, MOLAR_MASS_DRY_AIR, MOLAR_MASS_WATER,
-                         STANDARD_PRESSURE, SUTHERLAND_MU_REF, SUTHERLAND_S,
+from ..constants import (GAS_CONSTANT, MAGNUS_A, MAGNUS_B, MAGNUS_C, MOLAR_MASS_DRY_AIR,
+                         MOLAR_MASS_WATER, STANDARD_PRESSURE, SUTHERLAND_MU_REF, SUTHERLAND_S,
                          SUTHERLAND_T_REF, ZERO_CELSIUS, GRAVITY)
 from ..units import molar_density_air
 
@@ -16,6 +15,14 @@ from ..units import molar_density_air
 #: temperature [K]; ISO 2533 / ICAO standard atmosphere.
 STANDARD_LAPSE_RATE = 0.0065
 STANDARD_SEA_LEVEL_TEMPERATURE = 288.15
+#: Constants of the psychrometric constant of FAO-56, Eq. 8 (Allen, R. G., Pereira,
+#: L. S., Raes, D. and Smith, M. 1998, FAO Irrigation and Drainage Paper 56, Eq. 8 and
+#: Annex 3): specific heat of moist air c_p [J kg-1 K-1] (1.013e-3 MJ kg-1 degC-1),
+#: ratio of the molar masses of water vapour and dry air epsilon [-] and latent heat
+#: of vaporization lambda at 20 degC [J kg-1] (2.45 MJ kg-1).
+FAO56_CP_MOIST_AIR = 1013.0
+FAO56_EPSILON = 0.622
+FAO56_LATENT_HEAT = 2.45e6
 
 
 def air_density(temperature, pressure):
@@ -167,7 +174,7 @@ def saturation_slope(temperature):
 
 
 def psychrometric_constant(pressure):
-    """Psychrometric constant gamma = c_p p / (epsilon L_v) [Pa K-1].
+    """Psychrometric constant gamma = c_p p / (epsilon lambda) of FAO-56 [Pa K-1].
 
     Parameters
     ----------
@@ -177,14 +184,27 @@ def psychrometric_constant(pressure):
     Returns
     -------
     gamma : array_like
-        [Pa K-1] (about 66 Pa/K at sea level).
+        [Pa K-1] (0.6648e-3 p: 67.35 Pa/K at 101.325 kPa).
+
+    Notes
+    -----
+    .. math:: \\gamma = \\frac{c_p\\,p}{\\varepsilon\\,\\lambda}
+
+    with FAO-56's c_p of moist air, epsilon = 0.622 and lambda at 20 degC
+    (:data:`FAO56_CP_MOIST_AIR`, :data:`FAO56_EPSILON`, :data:`FAO56_LATENT_HEAT`).
+    Until 2026-12 the dry-air c_p (1004.67) and the latent heat at 0 degC (2.501e6)
+    were used, 2.9 % below the cited equation (found against ``refet``'s FAO-56 value,
+    tests/surface/test_air_reference_libs.py).
 
     References
     ----------
-    Allen, R. G. et al. (1998), FAO Irrigation and Drainage Paper 56, Eq. (8).
+    Allen, R. G., Pereira, L. S., Raes, D. and Smith, M. (1998), FAO Irrigation and
+    Drainage Paper 56, Eq. (8).
+
+    >>> round(float(psychrometric_constant(101325.0)), 2)
+    67.35
     """
-    eps = MOLAR_MASS_WATER / MOLAR_MASS_DRY_AIR
-    return CP_DRY_AIR * pressure / (eps * LATENT_HEAT_VAPORIZATION)
+    return FAO56_CP_MOIST_AIR * pressure / (FAO56_EPSILON * FAO56_LATENT_HEAT)
 
 
 def specific_humidity_deficit(temperature, relative_humidity, pressure):
