@@ -61,3 +61,24 @@ def test_cut_at_zero_of_the_defaults_scipy_norm(sd):
 def test_sensitivity_range_must_be_finite_and_wide(rng):
     with pytest.raises(ValueError, match="0 <= low < high, both finite"):
         SensitivityOptions(factors={"vd_SO2": rng, "gauge_catch": (0.9, 1.1)})
+
+
+@pytest.mark.parametrize("line, column, word", [
+    ('sites = ["quil"]', "sensitivity.sites", "did you mean 'quill'"),
+    ('receptors = ["gras"]', "sensitivity.receptors", "did you mean 'grass'"),
+])
+def test_sensitivity_site_or_receptor_unknown_is_located(tiny, tmp_path, line, column, word,
+                                                         capsys):
+    """An unknown [sensitivity] site stopped `workbench sensitivity` with a bare KeyError
+    (an unknown receptor with an error naming no file); now one located message."""
+    from workbench.cli import main
+    sc = tiny[0]
+    text = sc.path.read_text(encoding="utf-8")
+    p = tmp_path / "scenario.toml"
+    p.write_text(text.replace("[sensitivity]\n", f"[sensitivity]\n{line}\n", 1),
+                 encoding="utf-8")
+    for name in ("sites.toml", "precip.csv", "air.csv", "met.csv"):
+        (tmp_path / name).write_bytes((sc.path.parent / name).read_bytes())
+    assert main(["sensitivity", str(p), "--out", str(tmp_path / "out"), "--quiet"]) == 2
+    err = capsys.readouterr().err
+    assert "scenario.toml, line" in err and f"column '{column}'" in err and word in err
