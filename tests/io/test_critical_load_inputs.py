@@ -174,3 +174,17 @@ def test_plausible_range_brackets_the_demo_loads():
     assert lo <= 5 * eq_per_kg("N") and 30 * eq_per_kg("N") <= hi
     cat = read_sites(Path(__file__).parents[2] / "demo_data" / "sites.toml")
     assert not [n for n in cat.notes if "critical load" in n]
+
+
+def test_scenario_override_does_not_repeat_or_misplace_the_hint(tmp_path):
+    """A scenario overriding another key of a site with a doubtful load: the hint came
+    again, pinned on the override's line (canopy_height_m); the catalogue's note stays
+    the only one."""
+    from workbench.scenario import load_scenario
+    p = tmp_path / "sites.toml"
+    p.write_text(SITE + GOOD.replace("cl_nut_n = 700.0", "cl_nut_n = 10"), encoding="utf-8")
+    s = tmp_path / "scenario.toml"
+    s.write_text('[inputs]\nsites = "sites.toml"\n\n[sites.alpha]\ncanopy_height_m = 0.2\n',
+                 encoding="utf-8")
+    assert load_scenario(s).notes == []
+    assert len(read_sites(p).notes) == 1

@@ -354,6 +354,8 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
     table_err : callable, optional
         ``table_err(problem, receptor, key, value=None, expected=None)`` -> an error
         located in a ``[site.critical_loads.<receptor>]`` table (default: `err`).
+        Without it (the scenario's check of a catalogue site with its overrides, which
+        cannot change critical loads) the critical-load hints are not noted again.
 
     Returns
     -------
@@ -412,11 +414,14 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
         if not 0 <= t["lai_min"] <= t["lai_max"]:
             raise err("lai_min above lai_max", "lai_min", t["lai_min"], "0 <= lai_min <= lai_max")
         lai = _monthly_lai(float(t["lai_min"]), float(t["lai_max"]), t["latitude"])
-    if table_err is None:
+    cl_notes = notes             # without table_err: the scenario's re-check of a site
+    if table_err is None:        # read from the catalogue, whose hints are noted already
+        cl_notes = []            # (and would blame an unrelated override's line)
+
         def table_err(problem, receptor, key, value=None, expected=None):
             return err(problem, "critical_loads", value, expected)
     surfaces = [t["land_use"]] + [r for r in receptors if r != t["land_use"]]
-    cl, per_receptor = check_critical_loads(t, surfaces, err, table_err, notes, t["id"])
+    cl, per_receptor = check_critical_loads(t, surfaces, err, table_err, cl_notes, t["id"])
     gamma = _nh3_emission_potential(t, err, notes, label, receptors)
     coarse = dict(t.get("coarse_fraction", {}))
     for key, v in coarse.items():
