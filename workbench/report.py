@@ -117,7 +117,7 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES) -> tuple:
         return out + ["<p>No annual totals.</p>"], first
     tr = tr[tr["values"] == "all"]
     out.append(_table_html(tr[["site", "receptor", "element", "n_years", "tau", "p_value",
-                               "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid"]]))
+                               "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid", "note"]]))
     sites = list(dict.fromkeys(tot["site"]))
     shown = set(sites[:max_sites])
     out.append(_figures_limited(len(sites), len(shown), "Trend figures are"))

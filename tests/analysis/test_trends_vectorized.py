@@ -29,8 +29,11 @@ def _reference(year_rows, month_rows=None, dl_notes=None, min_years=10, alpha=0.
             excluded = ("years left out: " + ", ".join(f"{n} {s}" for s, n in left.items())
                         if len(left) else "")
             r = mann_kendall(np.where(use, x, np.nan), years.astype(float), alpha)
+            gap = sorted(set(range(years.min(), years.max() + 1)) - set(years.tolist()))
             rows.append(_row(key, "annual", variant, years[use], r, min_years,
-                             np.median(x[use]) if use.any() else np.nan, excluded, dl))
+                             np.median(x[use]) if use.any() else np.nan, excluded, dl,
+                             x[use].min() if use.any() else np.nan,
+                             "no row for " + " ".join(map(str, gap)) if gap else ""))
     if month_rows is not None and len(month_rows):
         m = month_rows[month_rows["period"].astype(str) != "span"].copy()
         ps = pd.DatetimeIndex(m["period_start"])
@@ -49,7 +52,8 @@ def _reference(year_rows, month_rows=None, dl_notes=None, min_years=10, alpha=0.
                 n_out = int((~ok).sum())
                 rows.append(_row(key, "monthly", variant, used, r, min_years,
                                  float(np.nanmedian(grid.to_numpy())) if used.size else np.nan,
-                                 f"{n_out} months left out by status" if n_out else "", dl))
+                                 f"{n_out} months left out by status" if n_out else "", dl,
+                                 np.nanmin(grid.to_numpy()) if used.size else np.nan))
     return pd.DataFrame(rows)
 
 

@@ -33,7 +33,8 @@ ACIDITY_KEYS = ("cl_max_s", "cl_min_n", "cl_max_n")
 NUTRIENT_KEY = "cl_nut_n"
 #: Region codes and what each says, for tables and figures.
 REGIONS = {
-    -1: "not computed (deposition or critical load missing)",
+    -1: "not determined (deposition or critical load missing, a net emission, or a "
+        "partial deposition on or below the function)",
     0: "not exceeded",
     1: "reduce S only (above the flat part of the function)",
     2: "nearest the corner (CLminN, CLmaxS): reduce S and N",
@@ -59,7 +60,8 @@ class AcidityExceedance(NamedTuple):
 
 
 def check_function(cl_max_s, cl_min_n, cl_max_n):
-    """Raise :class:`ExceedanceError` for a negative load or CLmaxN below CLminN.
+    """Raise :class:`ExceedanceError` for a negative or infinite load or CLmaxN below
+    CLminN.
 
     NaN entries (no critical load) pass; they give NaN exceedances.
     """
@@ -69,6 +71,11 @@ def check_function(cl_max_s, cl_min_n, cl_max_n):
         if np.any(bad):
             raise ExceedanceError(f"negative critical load {name} = {v[bad].flat[0]:g} "
                                   f"(at position {int(np.flatnonzero(bad)[0])}); expected >= 0 eq/ha/yr")
+        bad = np.isinf(v)
+        if np.any(bad):
+            raise ExceedanceError(f"critical load {name} = {v[bad].flat[0]:g} is not finite "
+                                  f"(at position {int(np.flatnonzero(bad)[0])}); expected a "
+                                  "finite number >= 0 eq/ha/yr, or NaN for none")
     bad = np.broadcast_to(n1 < n0, np.broadcast(n0, n1).shape)
     if np.any(bad):
         i = int(np.flatnonzero(bad)[0])
@@ -277,13 +284,56 @@ def exceedance_table(result, catalogue) -> pd.DataFrame:
     Returns
     -------
     DataFrame
+        :func:`exceedance_from_totals` of the run's annual totals; with Monte Carlo draws
+        in the run, the columns of :func:`exceedance_probability` follow.
+    """
+    basis = getattr(result.options.get("budget"), "sulfate_basis", "nss")
+    t = exceedance_from_totals(annual_totals(result), catalogue, basis)
+    from .uncertainty import annual_total_draws
+    draws = annual_total_draws(result)
+    if draws is None:
+        return t
+    return pd.concat([t, exceedance_probability(t, draws, t.attrs["lower_bound"])], axis=1)
+
+
+def _lower_bound(totals: pd.DataFrame) -> np.ndarray:
+    """Rows whose S or N total lacks a component (status ``partial``, or components
+    named missing): the deposition, and so every exceedance, is a lower bound."""
+    out = np.zeros(len(totals), bool)
+    for el in ("s", "n"):
+        out |= totals[f"{el}_status"].astype(str).eq("partial").to_numpy()
+        out |= totals[f"{el}_missing"].fillna("").astype(str).ne("").to_numpy() & \
+            totals[f"{el}_dep_eq_ha_yr"].notna().to_numpy()
+    return out
+
+
+def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss") -> pd.DataFrame:
+    """The rows of ``exceedance.csv`` from annual S and N totals and the critical loads.
+
+    Parameters
+    ----------
+    totals : DataFrame
+        :func:`annual_totals`: site, receptor, period, ``s_dep_eq_ha_yr``,
+        ``n_dep_eq_ha_yr`` [eq ha-1 yr-1], their statuses and missing components.
+    catalogue : workbench.io.sites.SiteCatalogue
+        The sites with their critical loads [eq ha-1 yr-1].
+    sulfate_basis : str
+        ``"nss"`` or ``"total"`` (noted: S then includes sea-salt sulfate).
+
+    Returns
+    -------
+    DataFrame
         :data:`EXCEEDANCE_COLUMNS`, then the loads, the S and N reductions and a note.
         Pairs of site and receptor without any critical load are left out; a status
         other than ``complete`` comes from the S or N total and the note says which.
         A receptor without its own ``[site.critical_loads.<receptor>]`` table takes the
         site's loads, and the note says that they were given for the site's land use.
+        Where a total lacks a component (``partial``) the deposition is a lower bound:
+        a positive exceedance is then a lower bound too ("at least"), and an exceedance
+        of 0 is not determined (NaN, region -1), as the full deposition may exceed.
+        A negative total (net emission, e.g. of NH3) gives no exceedance (NaN, region -1).
     """
-    t = annual_totals(result)
+    t = totals
     loads = pd.DataFrame([
         {"site": s.id, "receptor": r, **{k: s.critical_loads_for(r).get(k, np.nan)
                                         for k in ACIDITY_KEYS + (NUTRIENT_KEY,)}}
@@ -298,28 +348,41 @@ def exceedance_table(result, catalogue) -> pd.DataFrame:
         borrowed, on=["site", "receptor"], how="left")
     s_dep = t["s_dep_eq_ha_yr"].to_numpy(float)
     n_dep = t["n_dep_eq_ha_yr"].to_numpy(float)
-    ex = acidity_exceedance(s_dep, n_dep, *(t[k].to_numpy(float) for k in ACIDITY_KEYS))
-    t["ex_acidity_eq_ha_yr"] = ex.exceedance
-    t["region"] = ex.region
-    t["ex_nutrient_n_eq_ha_yr"] = nutrient_n_exceedance(n_dep, t[NUTRIENT_KEY].to_numpy(float))
-    t["s_reduction_eq_ha_yr"] = ex.s_reduction
-    t["n_reduction_eq_ha_yr"] = ex.n_reduction
+    net = (s_dep < 0) | (n_dep < 0)              # NaN compares False
+    ok_s, ok_n = np.where(net, np.nan, s_dep), np.where(net, np.nan, n_dep)
+    ex = acidity_exceedance(ok_s, ok_n, *(t[k].to_numpy(float) for k in ACIDITY_KEYS))
+    nut = nutrient_n_exceedance(np.where(n_dep < 0, np.nan, n_dep),
+                                t[NUTRIENT_KEY].to_numpy(float))
+    lower = _lower_bound(t)
+    acid_undetermined = lower & (ex.exceedance == 0)
+    nut_undetermined = lower & (nut == 0)
+    t["ex_acidity_eq_ha_yr"] = np.where(acid_undetermined, np.nan, ex.exceedance)
+    t["region"] = np.where(acid_undetermined, -1, ex.region).astype(np.int8)
+    t["ex_nutrient_n_eq_ha_yr"] = np.where(nut_undetermined, np.nan, nut)
+    t["s_reduction_eq_ha_yr"] = np.where(acid_undetermined, np.nan, ex.s_reduction)
+    t["n_reduction_eq_ha_yr"] = np.where(acid_undetermined, np.nan, ex.n_reduction)
     t["status"], note = _status(t)
-    basis = getattr(result.options.get("budget"), "sulfate_basis", "nss")
-    sea = "S includes sea-salt sulfate (sulfate_basis = total)" if basis == "total" else ""
+    sea = "S includes sea-salt sulfate (sulfate_basis = total)" if sulfate_basis == "total" else ""
     no_acid = np.where(t[list(ACIDITY_KEYS)].isna().any(axis=1), "no complete acidity function", "")
-    note = _join(note, pd.Series([sea] * len(t), dtype=object), pd.Series(no_acid, dtype=object),
+    net_note = np.where(n_dep < 0, "net N emission (N total below 0): no exceedance",
+                        np.where(s_dep < 0, "net S emission (S total below 0): no exceedance", ""))
+    und = np.select([acid_undetermined & nut_undetermined, acid_undetermined, nut_undetermined],
+                    ["exceedances not determined (0 on the partial deposition)",
+                     "acidity exceedance not determined (0 on the partial deposition)",
+                     "nutrient-N exceedance not determined (0 on the partial deposition)"], "")
+    some = (~acid_undetermined & np.isfinite(ex.exceedance)) | (~nut_undetermined & np.isfinite(nut))
+    bound = _join(np.where(lower & some, "exceedances are lower bounds (deposition partial)", ""),
+                  und)
+    note = _join(note, pd.Series(bound, dtype=object), pd.Series(net_note, dtype=object),
+                 pd.Series([sea] * len(t), dtype=object), pd.Series(no_acid, dtype=object),
                  t["_borrowed"])
     t["note"] = note
     t = t.rename(columns={k: f"{k}_eq_ha_yr" for k in ACIDITY_KEYS + (NUTRIENT_KEY,)})
     extra = [f"{k}_eq_ha_yr" for k in ACIDITY_KEYS + (NUTRIENT_KEY,)] + [
         "s_reduction_eq_ha_yr", "n_reduction_eq_ha_yr", "note"]
     t = t[list(EXCEEDANCE_COLUMNS) + extra].reset_index(drop=True)
-    from .uncertainty import annual_total_draws
-    draws = annual_total_draws(result)
-    if draws is None:
-        return t
-    return pd.concat([t, exceedance_probability(t, draws)], axis=1)
+    t.attrs["lower_bound"] = lower
+    return t
 
 
 #: Quantiles of the draws in exceedance.csv [1] and the suffixes of their columns.
@@ -327,7 +390,8 @@ DRAW_QUANTILES = (0.05, 0.5, 0.95)
 DRAW_SUFFIXES = ("_p05", "_p50", "_p95")
 
 
-def exceedance_probability(table: pd.DataFrame, draws: xr.Dataset) -> pd.DataFrame:
+def exceedance_probability(table: pd.DataFrame, draws: xr.Dataset,
+                           lower_bound=None) -> pd.DataFrame:
     """Probability of exceedance and quantiles, from Monte Carlo draws of S and N.
 
     Parameters
@@ -346,7 +410,8 @@ def exceedance_probability(table: pd.DataFrame, draws: xr.Dataset) -> pd.DataFra
         Aligned with `table`: ``p_exceed_acidity`` and ``p_exceed_nutrient_n`` (share
         of the draws whose exceedance is > 0 [1]), the 5, 50 and 95 % quantiles of
         ``ex_acidity_eq_ha_yr``, ``s_dep_eq_ha_yr`` and ``n_dep_eq_ha_yr``
-        [eq ha-1 yr-1].  NaN where the row has no draws or a draw is NaN.
+        [eq ha-1 yr-1].  NaN where the row has no draws or a draw is NaN or negative
+        (net emission).
 
     Notes
     -----
@@ -365,14 +430,21 @@ def exceedance_probability(table: pd.DataFrame, draws: xr.Dataset) -> pd.DataFra
     s[:, have] = flat["s_dep_eq_ha_yr"].transpose("draw", "row").values[:, pos[have]]
     n[:, have] = flat["n_dep_eq_ha_yr"].transpose("draw", "row").values[:, pos[have]]
     cl = [table[f"{k}_eq_ha_yr"].to_numpy(float) for k in ACIDITY_KEYS + (NUTRIENT_KEY,)]
-    ex = acidity_exceedance(s, n, *cl[:3]).exceedance                  # (D, rows)
-    ex_n = nutrient_n_exceedance(n, cl[3])
+    net = (s < 0) | (n < 0)                                            # net emission
+    s_ok, n_ok = np.where(net, np.nan, s), np.where(net, np.nan, n)
+    ex = acidity_exceedance(s_ok, n_ok, *cl[:3]).exceedance            # (D, rows)
+    ex_n = nutrient_n_exceedance(np.where(n < 0, np.nan, n), cl[3])
+    lower = (np.zeros(len(table), bool) if lower_bound is None
+             else np.asarray(lower_bound, bool))
     out = {}
     for name, v in (("p_exceed_acidity", ex), ("p_exceed_nutrient_n", ex_n)):
         ok = np.isfinite(v).all(0)
-        out[name] = np.where(ok, (np.nan_to_num(v) > 0).mean(0), np.nan)
+        p = np.where(ok, (np.nan_to_num(v) > 0).mean(0), np.nan)
+        out[name] = np.where(lower & (p == 0), np.nan, p)
     for name, v in (("ex_acidity_eq_ha_yr", ex), ("s_dep_eq_ha_yr", s), ("n_dep_eq_ha_yr", n)):
         qs = np.quantile(v, DRAW_QUANTILES, axis=0)                    # NaN where any is NaN
+        if name.startswith("ex_"):
+            qs = np.where(lower & (qs == 0), np.nan, qs)
         for qi, suffix in enumerate(DRAW_SUFFIXES):
             out[name + suffix] = qs[qi]
     return pd.DataFrame(out, index=table.index)

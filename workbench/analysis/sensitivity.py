@@ -335,6 +335,7 @@ def _write_sensitivity(sc, out, quiet):
     from ..writers import atomic_write
     opt = sc.options["sensitivity"]
     study = Study.from_scenario(sc)
+    _check_cells(sc, study.catalogue(), opt)
     if opt.sites:              # the engine computes the sites analysed only
         study = Study(study.inputs.subset(list(opt.sites)), study.site_overrides)
     p = sc.data["period"]
@@ -356,6 +357,24 @@ def _write_sensitivity(sc, out, quiet):
     written["sensitivity.html"] = atomic_write(out / "sensitivity.html",
                                                lambda t: t.write_text(html, encoding="utf-8"))
     return list(written)
+
+
+def _check_cells(sc, catalogue, opt):
+    """A located error for a ``[sensitivity]`` site or receptor the catalogue does not
+    have (an unknown site gave a bare KeyError, an unknown receptor an unlocated one)."""
+    from ..errors import ScenarioError, suggest
+    from ..scenario import _line_of
+    lines = sc.path.read_text(encoding="utf-8").splitlines() if sc.path else []
+    surfaces = list(dict.fromkeys(r for s in catalogue for r in s.surfaces
+                                  if not opt.sites or s.id in opt.sites))
+    for key, given, known in (("sites", opt.sites, catalogue.ids),
+                              ("receptors", opt.receptors, surfaces)):
+        bad = [v for v in given if v not in known]
+        if bad:
+            raise ScenarioError(f"unknown {key[:-1]} in [sensitivity] {key}", file=sc.path,
+                                line=_line_of(lines, "sensitivity", key),
+                                column=f"sensitivity.{key}", value=bad[0],
+                                expected="one of " + ", ".join(known) + suggest(bad[0], known))
 
 
 def sensitivity_html(frame: pd.DataFrame, torn: pd.DataFrame) -> str:

@@ -80,10 +80,12 @@ class SensitivityOptions:
                     raise ValueError(f"SensitivityOptions.factors.wetness_rule: {list(rng)} "
                                      f"must list 2 or more of {WETNESS}")
                 continue
-            if (len(rng) != 2 or not all(isinstance(v, (int, float)) for v in rng)
-                    or not 0 <= rng[0] < rng[1]):
+            if (len(rng) != 2 or not all(isinstance(v, (int, float)) and not isinstance(v, bool)
+                                         for v in rng)
+                    or not 0 <= rng[0] < rng[1] < float("inf")):
                 raise ValueError(f"SensitivityOptions.factors.{name} = {list(rng)} must be "
-                                 "[low, high] with 0 <= low < high")
+                                 "[low, high] with 0 <= low < high, both finite (a factor "
+                                 "held fixed is left out of the table, not given low = high)")
             if kind == "rc_scale" and not rng[0] > 0:
                 raise ValueError(f"SensitivityOptions.factors.{name}: a multiplier of Rc "
                                  "must be > 0")

@@ -126,6 +126,8 @@ def mann_kendall(x, t=None, alpha=ALPHA) -> TrendResult:
     icpt = float(np.median(x[ok]) - slope * np.median(t[ok])) if n else np.nan
     if not slopes.size:                 # no pair of values: no test (not p = 1)
         s = var_s = z = np.nan
+    elif var_s == 0:                    # every value tied: no test (not p = 1)
+        z = np.nan
     return TrendResult(n, s, var_s, z, _p(z), s / (n * (n - 1) / 2) if n > 1 else np.nan,
                        slope, lo, hi, icpt)
 
@@ -202,6 +204,8 @@ def seasonal_kendall(x, years=None, correct=True, alpha=ALPHA) -> TrendResult:
     pairs = float(np.sum(counts * (counts - 1) / 2))
     if not slopes.size:                 # no pair of values: no test (not p = 1)
         s = var_s = z = np.nan
+    elif var_s == 0:                    # every value tied: no test (not p = 1)
+        z = np.nan
     ok = ~np.isnan(x)
     tt = np.broadcast_to(t[:, None], x.shape)
     icpt = float(np.median(x[ok]) - slope * np.median(tt[ok])) if ok.any() else np.nan
@@ -264,12 +268,13 @@ def _dl_note(notes, site, element, pathway, species):
     return "; ".join(notes[(site, n)] for n in names if (site, n) in notes)
 
 
-def _note(variant, valid, min_years, excluded, dl) -> str:
-    """The note of one trend row: the values used, too few years, what was left out and
-    the detection-limit note."""
+def _note(variant, few, min_years, excluded, dl, flags=()) -> str:
+    """The note of one trend row: the values used, too few years, no test or no percent
+    slope (`flags`), what was left out and the detection-limit note."""
     note = [f"values: {variant.replace('_', ' ')}"]
-    if not valid:
+    if few:
         note.append(f"fewer than {min_years} complete years")
+    note.extend(f for f in flags if f)
     if excluded:
         note.append(excluded)
     if dl:
@@ -277,16 +282,31 @@ def _note(variant, valid, min_years, excluded, dl) -> str:
     return "; ".join(note)
 
 
-def _row(key, series, variant, years, r, min_years, median, excluded, dl):
-    valid = r.n >= min_years
-    pct = 100.0 * r.slope / median if median and np.isfinite(median) and median != 0 else np.nan
+#: Why a row has no test or no percent slope (notes of trends.csv).
+NO_TEST = "all values equal (Var S = 0): no test"
+NO_PERCENT = "values below 0 (net emission): no percent slope"
+GAP = "no row for {}"
+
+
+def _flags(n, var_s, vmin, gaps=""):
+    """The reasons of :data:`NO_TEST` and :data:`NO_PERCENT` for one row."""
+    return (NO_TEST if n >= 2 and var_s == 0 else "",
+            NO_PERCENT if np.isfinite(vmin) and vmin < 0 else "", gaps)
+
+
+def _row(key, series, variant, years, r, min_years, median, excluded, dl, vmin=np.nan,
+         gaps=""):
+    valid = r.n >= min_years and np.isfinite(r.p_value)
+    pct = (100.0 * r.slope / median if median and np.isfinite(median) and median != 0
+           and not vmin < 0 else np.nan)
     return {**dict(zip(KEYS, key)), "series": series, "n_years": r.n,
             "first_year": int(min(years)) if len(years) else None,
             "last_year": int(max(years)) if len(years) else None,
             "test": "mann_kendall" if series == "annual" else "seasonal_kendall_hirsch_slack",
             "tau": r.tau, "p_value": r.p_value, "sen_slope_per_yr": r.slope,
             "sen_slope_pct_per_yr": pct, "valid": bool(valid),
-            "note": _note(variant, valid, min_years, excluded, dl),
+            "note": _note(variant, r.n < min_years, min_years, excluded, dl,
+                          _flags(r.n, r.var_s, vmin, gaps)),
             "values": variant, "s": r.s, "var_s": r.var_s, "z": r.z,
             "slope_low_per_yr": r.slope_low, "slope_high_per_yr": r.slope_high,
             "intercept": r.intercept, "unit": "kg ha-1 yr-1"}
@@ -327,7 +347,7 @@ def _left_out_notes(code, status, n_series) -> list:
     return notes
 
 
-def _table_rows(keys, series, stats_by_variant, min_years, excluded, dl) -> dict:
+def _table_rows(keys, series, stats_by_variant, min_years, excluded, dl, gaps=None) -> dict:
     """Columns of trends.csv for every series and variant (series-major, variants in the
     order of :data:`VARIANTS`), as :func:`_row` makes them one at a time."""
     n_keys, variants = len(keys), list(VARIANTS)
@@ -340,16 +360,19 @@ def _table_rows(keys, series, stats_by_variant, min_years, excluded, dl) -> dict
     cols = {k: np.repeat(np.asarray(key_cols[i], dtype=object), len(variants))
             for i, k in enumerate(KEYS)}
     n = st["n"].astype(np.int64)
-    valid = n >= min_years
+    valid = (n >= min_years) & np.isfinite(st["p_value"])
     variant = np.tile(np.asarray(variants, dtype=object), n_keys)
     exc = order(excluded)
     dl_rep = np.repeat(np.asarray(dl, dtype=object), len(variants))
-    notes = [_note(va, ok, min_years, ex, d) for va, ok, ex, d in
-             zip(variant.tolist(), valid.tolist(), exc.tolist(), dl_rep.tolist())]
+    gap_rep = np.repeat(np.asarray(gaps if gaps is not None else [""] * n_keys, dtype=object),
+                        len(variants))
+    notes = [_note(va, few, min_years, ex, d, _flags(k, v, m, g)) for va, few, ex, d, k, v, m, g
+             in zip(variant.tolist(), (n < min_years).tolist(), exc.tolist(), dl_rep.tolist(),
+                    n.tolist(), st["var_s"].tolist(), st["min"].tolist(), gap_rep.tolist())]
     med = st["median"]
     with np.errstate(invalid="ignore", divide="ignore"):
-        pct = np.where(np.isfinite(med) & (med != 0), 100.0 * st["slope"] / np.where(
-            med != 0, med, 1.0), np.nan)
+        pct = np.where(np.isfinite(med) & (med != 0) & ~(st["min"] < 0),
+                       100.0 * st["slope"] / np.where(med != 0, med, 1.0), np.nan)
 
     def year(v):
         if np.isnan(v).all():
@@ -390,7 +413,26 @@ def _annual_columns(y, dl_notes, min_years, alpha):
         stats[variant] = mann_kendall_batch(grid, all_years.astype(float), alpha)
         excluded[variant] = _left_out_notes(code[~use], status[~use], len(keys))
     dl = [_dl_note(dl_notes, *k[:1], *k[2:]) for k in keys]
-    return _table_rows(keys, "annual", stats, min_years, excluded, dl)
+    return _table_rows(keys, "annual", stats, min_years, excluded, dl,
+                       _gap_notes(code, year, len(keys)))
+
+
+def _gap_notes(code, year, n_series) -> list:
+    """'no row for 2015' of each series that has no row at all for a year between its
+    first and last (the spacing of the years is kept: Sen's slope uses the years)."""
+    notes = [""] * n_series
+    if not code.size:
+        return notes
+    y0 = int(year.min())
+    has = np.zeros((n_series, int(year.max()) - y0 + 1), bool)
+    has[code, year - y0] = True
+    first = has.argmax(axis=1)
+    last = has.shape[1] - 1 - has[:, ::-1].argmax(axis=1)
+    cols = np.arange(has.shape[1])
+    gap = ~has & (cols >= first[:, None]) & (cols <= last[:, None])
+    for c in np.flatnonzero(gap.any(axis=1)):
+        notes[c] = GAP.format(" ".join(str(y0 + int(i)) for i in np.flatnonzero(gap[c])))
+    return notes
 
 
 def _annual_rows_per_series(y, dl_notes, min_years, alpha):
@@ -406,12 +448,14 @@ def _annual_rows_per_series(y, dl_notes, min_years, alpha):
         sl = slice(bounds[c], bounds[c + 1])
         years, x, status = year[sl], x_all[sl], status_all[sl]
         dl = _dl_note(dl_notes, *key[:1], *key[2:])
+        gaps = _gap_notes(np.zeros(years.size, np.int64), years, 1)[0]
         for variant, keep in VARIANTS.items():
             use = np.isin(status, keep) & np.isfinite(x)
             excluded = _left_out_notes(np.zeros(int((~use).sum()), np.int64), status[~use], 1)[0]
             r = mann_kendall(np.where(use, x, np.nan), years.astype(float), alpha)
             rows.append(_row(key, "annual", variant, years[use], r, min_years,
-                             np.median(x[use]) if use.any() else np.nan, excluded, dl))
+                             np.median(x[use]) if use.any() else np.nan, excluded, dl,
+                             np.min(x[use]) if use.any() else np.nan, gaps))
     return rows
 
 

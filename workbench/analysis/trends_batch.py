@@ -120,8 +120,9 @@ def mann_kendall_batch(x, t, alpha) -> dict:
     -------
     dict of ndarray, shape (series,)
         The fields of :class:`workbench.analysis.trends.TrendResult` (slopes
-        [unit yr-1]), the median of the values ``median`` [unit] and the first and
-        last time with a value ``t_first``, ``t_last`` [yr] (NaN: none).
+        [unit yr-1]), the median and the smallest of the values ``median``, ``min``
+        [unit] and the first and last time with a value ``t_first``, ``t_last`` [yr]
+        (NaN: none).  All values tied (Var(S) = 0): z and p are NaN (no test).
     """
     x = np.asarray(x, float)
     t = np.asarray(t, float)
@@ -142,6 +143,7 @@ def mann_kendall_batch(x, t, alpha) -> dict:
     z, p = _z_p(s, var_s)
     none = n < 2                         # no pair of values: no test (not p = 1)
     s, var_s, z, p = (np.where(none, np.nan, v) for v in (s, var_s, z, p))
+    z, p = (np.where(var_s == 0, np.nan, v) for v in (z, p))   # all values tied: no test
     with np.errstate(invalid="ignore", divide="ignore"):
         tau = np.where(n > 1, s / np.where(n > 1, n * (n - 1) / 2, 1.0), np.nan)
     med = median_rows(x)
@@ -153,6 +155,7 @@ def mann_kendall_batch(x, t, alpha) -> dict:
     return {"n": n, "s": s, "var_s": var_s, "z": z, "p_value": p, "tau": tau,
             "slope": out["slope"], "slope_low": out["slope_low"],
             "slope_high": out["slope_high"], "intercept": icpt, "median": med,
+            "min": np.where(n > 0, np.min(np.where(valid, x, np.inf), axis=1), np.nan),
             "t_first": np.where(n > 0, first, np.nan), "t_last": np.where(n > 0, last, np.nan)}
 
 
@@ -204,6 +207,7 @@ def seasonal_kendall_batch(x, t, alpha) -> dict:
     counts = valid.sum(axis=1)
     pairs = np.sum(counts * (counts - 1) / 2, axis=1)
     s, var_s, z, p = (np.where(pairs == 0, np.nan, v) for v in (s, var_s, z, p))
+    z, p = (np.where(var_s == 0, np.nan, v) for v in (z, p))   # all values tied: no test
     with np.errstate(invalid="ignore", divide="ignore"):
         tau = np.where(pairs != 0, s / np.where(pairs != 0, pairs, 1.0), np.nan)
     flat = x.reshape(n_series, -1)
@@ -218,4 +222,6 @@ def seasonal_kendall_batch(x, t, alpha) -> dict:
     return {"n": n, "s": s, "var_s": var_s, "z": z, "p_value": p, "tau": tau,
             "slope": out["slope"], "slope_low": out["slope_low"],
             "slope_high": out["slope_high"], "intercept": icpt, "median": med,
+            "min": np.where(n > 0, np.min(np.where(valid, x, np.inf).reshape(n_series, -1),
+                                          axis=1), np.nan),
             "t_first": np.where(n > 0, first, np.nan), "t_last": np.where(n > 0, last, np.nan)}

@@ -32,6 +32,7 @@ are.  The factors, their correlation structure and their sources are in
 from __future__ import annotations
 
 import json
+import math
 from dataclasses import asdict, dataclass, field
 
 import numpy as np
@@ -115,16 +116,19 @@ class UncertaintyOptions:
             object.__setattr__(self, name, int(v))           # 1000.0 from a file -> 1000
         for name in ("air_rel_sd", "precip_conc_rel_sd", "gauge_catch_rel_sd", "depth_rel_sd",
                      "censored_rel_sd", "vd_fill_rel_sd", "pwm_fill_rel_sd"):
-            if not getattr(self, name) >= 0:
-                raise ValueError(f"UncertaintyOptions.{name} must be >= 0")
+            v = getattr(self, name)
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 <= v < math.inf:
+                raise ValueError(f"UncertaintyOptions.{name} = {v!r} must be a finite number "
+                                 ">= 0 (0 switches the factor off)")
         if not 0 <= self.vd_shared_fraction <= 1:
             raise ValueError("UncertaintyOptions.vd_shared_fraction must lie in [0, 1]")
         for sp, g in self.vd_gsd.items():
             if sp not in DRY_SPECIES:
                 raise ValueError(f"UncertaintyOptions.vd_gsd: unknown species {sp!r}; "
                                  f"expected one of {', '.join(DRY_SPECIES)}")
-            if isinstance(g, bool) or not isinstance(g, (int, float)) or g < 1:
-                raise ValueError(f"UncertaintyOptions.vd_gsd[{sp!r}] = {g!r} must be a number >= 1")
+            if isinstance(g, bool) or not isinstance(g, (int, float)) or not 1 <= g < math.inf:
+                raise ValueError(f"UncertaintyOptions.vd_gsd[{sp!r}] = {g!r} must be a finite "
+                                 "number >= 1 (1 switches the factor off)")
 
     @classmethod
     def from_dict(cls, given: dict) -> "UncertaintyOptions":

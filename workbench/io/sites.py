@@ -15,6 +15,7 @@ import xarray as xr
 from ..errors import InputError, suggest, type_hint, type_words
 from ..landuse import LAND_USE
 
+from .critical_loads import CRITICAL_LOAD_KEYS, check_critical_loads  # noqa: F401
 from .tomlfile import read_toml
 
 #: key -> (type(s), required, description)
@@ -55,7 +56,6 @@ PARTICLE_SPECIES = ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa")
 #: Gamma_s above this is beyond the values reported for freshly fertilised crops
 #: (order 1e4; Massad et al. 2010, from memory): a hint, not an error [-].
 NH3_GAMMA_HINT = 1e5
-CRITICAL_LOAD_KEYS = ("cl_max_s", "cl_min_n", "cl_max_n", "cl_nut_n")
 COLLECTORS = ("wet_only", "bulk")
 
 
@@ -354,6 +354,8 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
     table_err : callable, optional
         ``table_err(problem, receptor, key, value=None, expected=None)`` -> an error
         located in a ``[site.critical_loads.<receptor>]`` table (default: `err`).
+        Without it (the scenario's check of a catalogue site with its overrides, which
+        cannot change critical loads) the critical-load hints are not noted again.
 
     Returns
     -------
@@ -412,40 +414,14 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
         if not 0 <= t["lai_min"] <= t["lai_max"]:
             raise err("lai_min above lai_max", "lai_min", t["lai_min"], "0 <= lai_min <= lai_max")
         lai = _monthly_lai(float(t["lai_min"]), float(t["lai_max"]), t["latitude"])
-    cl = dict(t.get("critical_loads", {}))
-    per_receptor = {r: cl.pop(r) for r in list(cl) if isinstance(cl[r], dict)}
-    if table_err is None:
+    cl_notes = notes             # without table_err: the scenario's re-check of a site
+    if table_err is None:        # read from the catalogue, whose hints are noted already
+        cl_notes = []            # (and would blame an unrelated override's line)
+
         def table_err(problem, receptor, key, value=None, expected=None):
             return err(problem, "critical_loads", value, expected)
     surfaces = [t["land_use"]] + [r for r in receptors if r != t["land_use"]]
-    for r, table in per_receptor.items():
-        if r not in surfaces:
-            raise table_err("critical loads for a receptor the site does not have", r,
-                            "critical_loads", r, "one of the site's surfaces: "
-                            + ", ".join(surfaces) + suggest(r, surfaces))
-        for key, v in table.items():
-            if key not in CRITICAL_LOAD_KEYS:
-                raise table_err(f"unknown critical-load key in [site.critical_loads.{r}]", r, key,
-                                expected="one of " + ", ".join(CRITICAL_LOAD_KEYS)
-                                + suggest(key, CRITICAL_LOAD_KEYS))
-            if isinstance(v, bool) or not isinstance(v, (int, float)) or v < 0:
-                raise table_err(f"bad critical load in [site.critical_loads.{r}]", r, key, v,
-                                "a number >= 0 in eq/ha/yr")
-    for key, v in cl.items():
-        if key not in CRITICAL_LOAD_KEYS:
-            raise err("unknown critical-load key", key, expected="one of "
-                      + ", ".join(CRITICAL_LOAD_KEYS) + suggest(key, CRITICAL_LOAD_KEYS))
-        if isinstance(v, bool) or not isinstance(v, (int, float)) or v < 0:
-            raise err("bad critical load", key, v, "a number >= 0 in eq/ha/yr")
-    for r in [None] + list(per_receptor):
-        merged = {**cl, **(per_receptor[r] if r else {})}
-        if merged.get("cl_max_n", np.inf) < merged.get("cl_min_n", -np.inf):
-            where = f"[site.critical_loads.{r}]" if r else "[site.critical_loads]"
-            problem = f"impossible critical load function in {where}: cl_max_n below cl_min_n"
-            expected = f"cl_max_n >= cl_min_n = {merged['cl_min_n']:g} eq/ha/yr"
-            if r:
-                raise table_err(problem, r, "cl_max_n", merged["cl_max_n"], expected)
-            raise err(problem, "cl_max_n", merged["cl_max_n"], expected)
+    cl, per_receptor = check_critical_loads(t, surfaces, err, table_err, cl_notes, t["id"])
     gamma = _nh3_emission_potential(t, err, notes, label, receptors)
     coarse = dict(t.get("coarse_fraction", {}))
     for key, v in coarse.items():
@@ -480,11 +456,10 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
         roughness_length_m=t.get("roughness_length_m"),
         displacement_height_m=t.get("displacement_height_m"),
         met_land_use=t.get("met_land_use"), collector=collector,
-        receptors=tuple(receptors), critical_loads={k2: float(v) for k2, v in cl.items()},
+        receptors=tuple(receptors), critical_loads=cl,
         coast_distance_km=None if "coast_distance_km" not in t else float(t["coast_distance_km"]),
         coarse_fraction={k2: float(v) for k2, v in coarse.items()},
-        receptor_critical_loads={r: {k2: float(v) for k2, v in tb.items()}
-                                 for r, tb in per_receptor.items()},
+        receptor_critical_loads=per_receptor,
         nh3_emission_potential=gamma, ustar_transfer={k2: str(v) for k2, v in transfer.items()})
 
 

@@ -1,0 +1,190 @@
+"""The critical loads of a site (``[site.critical_loads]`` of ``sites.toml``).
+
+Values are in eq ha-1 yr-1.  Errors for what cannot be computed with (an unknown key, a
+value that is not a finite number >= 0, CLmaxN below CLminN, a table for a surface the
+site does not have); located hints (``notes``) for what is possible but doubtful: a
+value that looks typed in another unit (kg N or S, keq, meq m-2) and a critical load
+function that the simple mass balance cannot give.  The rules are in
+``docs/data_formats.md`` ("Critical loads").
+"""
+from __future__ import annotations
+
+import math
+import re
+
+from ..errors import suggest
+from ..species import EQ_PER_MOL_ELEMENT, element_molar_mass
+
+CRITICAL_LOAD_KEYS = ("cl_max_s", "cl_min_n", "cl_max_n", "cl_nut_n")
+#: The element each key is a load of (its equivalents: 2 per mol S, 1 per mol N).
+ELEMENT_OF = {"cl_max_s": "S", "cl_min_n": "N", "cl_max_n": "N", "cl_nut_n": "N"}
+#: Published critical loads are commonly hundreds to a few thousand eq/ha/yr (common
+#: practice, from memory).  A value > 0 below the first or above the second bound is
+#: noted as a possible unit slip; a hint, not an error [eq ha-1 yr-1].
+PLAUSIBLE_EQ_HA_YR = (50.0, 20000.0)
+
+
+def eq_per_kg(element: str) -> float:
+    """Equivalents in one kilogram of the element [eq kg-1]: 1000 / M x eq per mol,
+    with M [g mol-1] and the equivalents of :data:`workbench.species.EQ_PER_MOL_ELEMENT`
+    (N: 1000 / 14.007 = 71.4; S: 2 x 1000 / 32.06 = 62.4).
+
+    >>> round(eq_per_kg("N"), 1), round(eq_per_kg("S"), 1)
+    (71.4, 62.4)
+    """
+    return EQ_PER_MOL_ELEMENT[element] / element_molar_mass(element)
+
+
+def _unit_readings(key, v):
+    """(reading, value in eq/ha/yr) of a number typed in another unit."""
+    el = ELEMENT_OF[key]
+    f = eq_per_kg(el)
+    lo, hi = PLAUSIBLE_EQ_HA_YR
+    if v < lo:
+        cands = [(f"kg {el}/ha/yr (1 kg {el} = {f:.1f} eq)", v * f),
+                 ("keq/ha/yr (1 keq = 1000 eq)", v * 1000.0),
+                 ("meq/m2/yr (1 meq/m2 = 10 eq/ha)", v * 10.0)]
+    else:
+        cands = [(f"g {el}/ha/yr (1 g {el} = {f / 1000:.4f} eq)", v * f / 1000.0),
+                 ("meq/ha/yr (1 meq = 0.001 eq)", v / 1000.0)]
+    fit = [c for c in cands if lo <= c[1] <= hi]
+    return fit or cands
+
+
+def _doubtful_value(key, v, where):
+    """(problem, expected) of a value outside :data:`PLAUSIBLE_EQ_HA_YR`, or None."""
+    lo, hi = PLAUSIBLE_EQ_HA_YR
+    if v == 0 or lo <= v <= hi:
+        return None
+    side = f"below {lo:g}" if v < lo else f"above {hi:g}"
+    readings = "; ".join(f"in {u} it is {eq:.4g} eq/ha/yr" for u, eq in _unit_readings(key, v))
+    return (f"doubtful critical load {key} = {v:g} in {where}: {side} eq/ha/yr, a unit slip?",
+            f"eq/ha/yr, commonly hundreds to a few thousand; if the value was {readings}")
+
+
+_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+
+
+def _bad_value(key, v):
+    """(problem, expected) of a value that is not a finite number >= 0, or None."""
+    if isinstance(v, str):
+        m = _NUMBER.match(v)
+        if m and m.group(2):
+            unit = m.group(2)
+            expected = (f"a number without quotes or unit, in eq/ha/yr (e.g. {key} = "
+                        f"{float(m.group(1)):g})")
+            if "kg" in unit.lower():
+                el = ELEMENT_OF[key]
+                expected += (f"; from kg {el}/ha/yr multiply by {eq_per_kg(el):.1f} "
+                             f"({float(m.group(1)):g} kg {el} = "
+                             f"{float(m.group(1)) * eq_per_kg(el):.4g} eq)")
+            return f"written with a unit ({unit!r})", expected
+        return "text, not a number", "a number without quotes, in eq/ha/yr"
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        return "not a number", "a number >= 0 in eq/ha/yr"
+    if not math.isfinite(v):
+        return ("not finite",
+                "a finite number >= 0 in eq/ha/yr (leave the key out where there is none)")
+    if v < 0:
+        return "negative value", "a number >= 0 in eq/ha/yr"
+    return None
+
+
+def _function_notes(merged):
+    """(problem, key, expected) hints on a whole critical load function of acidity."""
+    out = []
+    s, n0, n1 = (merged.get(k) for k in ("cl_max_s", "cl_min_n", "cl_max_n"))
+    if s is None or n0 is None or n1 is None:
+        return out
+    if s == 0 and n1 > n0:
+        out.append(("cl_max_s = 0 with cl_max_n above cl_min_n: no S deposition is "
+                    "tolerated but N is; under the simple mass balance CLmaxS = 0 gives "
+                    "CLmaxN = CLminN (from memory); a missing value written as 0",
+                    "cl_max_s", "cl_max_s > 0, or cl_max_n = cl_min_n"))
+    elif n1 - n0 < s:
+        out.append((f"cl_max_n - cl_min_n = {n1 - n0:g} is below cl_max_s = {s:g}: under the "
+                    "simple mass balance CLmaxN = CLminN + CLmaxS / (1 - fde) >= CLminN + "
+                    "CLmaxS (ICP Modelling and Mapping Manual; from memory); values swapped "
+                    "or in different units", "cl_max_n",
+                    f"cl_max_n >= cl_min_n + cl_max_s = {n0 + s:g} eq/ha/yr"))
+    return out
+
+
+def check_critical_loads(t, surfaces, err, table_err, notes, site_id):
+    """Validate a site's ``critical_loads`` table and its receptor tables.
+
+    Parameters
+    ----------
+    t : dict
+        The site's keys; ``t["critical_loads"]`` [eq ha-1 yr-1] may hold receptor tables.
+    surfaces : list of str
+        The site's land use and receptors.
+    err, table_err : callable
+        Located errors in the site's table / in ``[site.critical_loads.<receptor>]``
+        (see :func:`workbench.io.sites.check_site`).
+    notes : list
+        Located hints on doubtful values are appended here.
+    site_id : str
+        Names the site in the hints.
+
+    Returns
+    -------
+    (dict, dict)
+        The site's loads {key: value} and {receptor: {key: value}} [eq ha-1 yr-1].
+
+    Raises
+    ------
+    InputError
+        For an unknown key or receptor, a value that is not a finite number >= 0, or
+        cl_max_n below cl_min_n.
+    """
+    cl = dict(t.get("critical_loads", {}))
+    per_receptor = {r: cl.pop(r) for r in list(cl) if isinstance(cl[r], dict)}
+    for r, table in per_receptor.items():
+        if r not in surfaces:
+            raise table_err("critical loads for a receptor the site does not have", r,
+                            "critical_loads", r, "one of the site's surfaces: "
+                            + ", ".join(surfaces) + suggest(r, surfaces))
+        for key, v in table.items():
+            if key not in CRITICAL_LOAD_KEYS:
+                raise table_err(f"unknown critical-load key in [site.critical_loads.{r}]", r, key,
+                                expected="one of " + ", ".join(CRITICAL_LOAD_KEYS)
+                                + suggest(key, CRITICAL_LOAD_KEYS))
+            bad = _bad_value(key, v)
+            if bad:
+                raise table_err(f"bad critical load in [site.critical_loads.{r}]: {bad[0]}",
+                                r, key, v, bad[1])
+    for key, v in cl.items():
+        if key not in CRITICAL_LOAD_KEYS:
+            raise err("unknown critical-load key", key, expected="one of "
+                      + ", ".join(CRITICAL_LOAD_KEYS) + suggest(key, CRITICAL_LOAD_KEYS))
+        bad = _bad_value(key, v)
+        if bad:
+            raise err(f"bad critical load: {bad[0]}", key, v, bad[1])
+
+    def locate(r):
+        if r:
+            return lambda problem, key, value=None, expected=None: table_err(
+                problem, r, key, value, expected)
+        return err
+    for r in [None] + list(per_receptor):
+        merged = {**cl, **(per_receptor[r] if r else {})}
+        where = f"[site.critical_loads.{r}]" if r else "[site.critical_loads]"
+        if merged.get("cl_max_n", math.inf) < merged.get("cl_min_n", -math.inf):
+            problem = f"impossible critical load function in {where}: cl_max_n below cl_min_n"
+            expected = f"cl_max_n >= cl_min_n = {merged['cl_min_n']:g} eq/ha/yr"
+            raise locate(r)(problem, "cl_max_n", merged["cl_max_n"], expected)
+        own = per_receptor[r] if r else cl
+        for key, v in own.items():
+            doubt = _doubtful_value(key, v, where)
+            if doubt:
+                notes.append(f"site {site_id!r}: " + str(locate(r)(
+                    doubt[0], key, v, doubt[1])))
+        for problem, key, expected in _function_notes(merged):
+            if r and not any(k in own for k in ("cl_max_s", "cl_min_n", "cl_max_n")):
+                continue               # the site's own function, noted once above
+            notes.append(f"site {site_id!r}: " + str(locate(r if key in own or not r else None)(
+                f"doubtful critical load function in {where}: {problem}", key,
+                merged[key], expected)))
+    return ({k: float(v) for k, v in cl.items()},
+            {r: {k: float(v) for k, v in tb.items()} for r, tb in per_receptor.items()})
