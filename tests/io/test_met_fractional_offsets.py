@@ -188,13 +188,34 @@ def test_start_labels_move_as_end_labels(tmp_path, cat, monkeypatch):
     assert [n for n in start[1].notes if "moved" in n] == [n for n in end[1].notes if "moved" in n]
 
 
-def test_labels_already_on_the_utc_hour_stay(tmp_path, cat, monkeypatch):
-    # 10:30 local at +9.5 = 01:00 UTC, on the grid already: read as before, no note
+def test_labels_already_on_the_utc_hour_stay_with_a_note(tmp_path, cat, monkeypatch):
+    # 10:30 local at +9.5 = 01:00 UTC, on the grid already: read as it is (an exact UTC
+    # hour end), and said in a note, as the moved labels are (before: no word)
     met, led = _both(_csv(tmp_path / "met.csv", [("kestrel", "2021-06-01T10:30", 1.0),
                                                  ("kestrel", "2021-06-01T11:30", 2.0)]),
                      cat, monkeypatch)
     assert _landed(met, "kestrel") == {"2021-06-01T01:00": 1.0, "2021-06-01T02:00": 2.0}
-    assert not [n for n in led.notes if "moved" in n]
+    assert not [n for n in led.notes if "moved 30 min" in n]
+    assert led.notes[0] == ("met kestrel: labels at utc_offset_h 9.5 already on the whole UTC "
+                            "hour (minute 30 of their clock) read as UTC hour ends, not moved")
+
+
+def test_a_site_mixing_moved_and_utc_labels_is_noted_once(tmp_path, cat, monkeypatch):
+    # +9.5 h: 09:00 -> 23:30 UTC -> 00:00 (moved); 10:30 = 01:00 UTC (kept);
+    # 11:00 -> 01:30 -> 02:00 (moved); +5.75 h: 10:45 = 05:00 UTC (kept), 12:00 -> 06:00
+    rows = [("kestrel", "2021-06-01T09:00", 1.0), ("kestrel", "2021-06-01T10:30", 2.0),
+            ("kestrel", "2021-06-01T11:00", 3.0),
+            ("marten", "2021-06-01T10:45", 4.0), ("marten", "2021-06-01T12:00", 5.0)]
+    met, led = _both(_csv(tmp_path / "met.csv", rows), cat, monkeypatch)
+    assert _landed(met, "kestrel") == {"2021-06-01T00:00": 1.0, "2021-06-01T01:00": 2.0,
+                                       "2021-06-01T02:00": 3.0}
+    assert _landed(met, "marten") == {"2021-06-01T05:00": 4.0, "2021-06-01T06:00": 5.0}
+    mine = [n for n in led.notes if n.startswith(("met kestrel:", "met marten:"))
+            and "UTC hour" in n]
+    assert len(mine) == 2
+    assert "each hour moved 30 min later" in mine[0] and "minute 30 of their clock" in mine[0]
+    assert "minute 45 of their clock" in mine[1] and "moved 15 min earlier" in mine[1]
+    assert all(n.endswith("mixes both kinds of label: check its logger's clock") for n in mine)
 
 
 @pytest.mark.parametrize("site, label", [("otter", "2021-06-01T10:20"),     # whole-hour site

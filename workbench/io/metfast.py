@@ -250,7 +250,7 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
             got = _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour)
             if got is not None and got is not _REPEAT:
                 got[1].notes[:0] = methours.move_notes(   # as the line reader: first
-                    list(ids), catalogue.utc_offsets(ids), parser.moved)
+                    list(ids), catalogue.utc_offsets(ids), parser.moved, parser.kept)
             if got is not _REPEAT:
                 return got
         before = any(k[0] in ("site", "time", "hour") for k in firsts)   # checked first
@@ -282,6 +282,7 @@ class _ChunkParser:
         self.hour, self.label, self.convert, self.variables = hour, label, convert, variables
         self.times = _TimeTexts()
         self.moved = set()        # (site, clock offset [min], zoned) of rows moved
+        self.kept = set()         # the same of fractional-clock rows on the UTC hour
         self._moved_lock = threading.Lock()
 
     def __call__(self, chunk):
@@ -339,8 +340,11 @@ class _ChunkParser:
             return self._locate(chunk)
         if t is not measured:
             pairs = methours.moved_pairs(site_idx, clock, zoned, t != measured)
+            kept = methours.moved_pairs(site_idx, clock, zoned,
+                                        methours.kept_on_utc(measured, clock))
             with self._moved_lock:
                 self.moved |= pairs
+                self.kept |= kept
         got, words = {}, False
         for name in self.used[2:]:
             v = df[name].to_numpy(dtype=float)
