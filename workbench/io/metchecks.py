@@ -302,9 +302,11 @@ def gauge_comparison(met, samples, low=0.5, high=2.0, min_depth_mm=2.0):
     samples : xarray.Dataset
         Precipitation samples (dim ``sample``).
     low, high : float
-        Accepted range of the ratio met / gauge [-] (common practice: a factor of two).
+        Accepted range of the ratio met / gauge [-] (common practice: a factor of two);
+        a ratio on a bound (to the rounding of :data:`workbench.wet.qa.THRESHOLD_RTOL`)
+        is inside.
     min_depth_mm : float
-        Smaller depths are not judged [mm].
+        Smaller depths are not judged [mm]; a depth equal to it (to rounding) is.
 
     Returns
     -------
@@ -327,6 +329,8 @@ def gauge_comparison(met, samples, low=0.5, high=2.0, min_depth_mm=2.0):
     out["met_hours_missing"] = n_hours - n_valid
     with np.errstate(divide="ignore", invalid="ignore"):
         out["ratio"] = out["met_depth"] / out["gauge_depth"]
-    judged = (out["met_hours_missing"] == 0) & (np.maximum(out["gauge_depth"], out["met_depth"]) >= min_depth_mm)
-    out["suspicious"] = judged & ~out["ratio"].between(low, high)
+    from ..wet.qa import at_least, outside_band      # on a bound in the decimals typed:
+    deepest = np.maximum(out["gauge_depth"], out["met_depth"]).to_numpy()   # judged, inside
+    judged = (out["met_hours_missing"] == 0).to_numpy() & at_least(deepest, min_depth_mm)
+    out["suspicious"] = judged & outside_band(out["ratio"].to_numpy(), low, high)
     return out
