@@ -29,9 +29,10 @@ YEARS = (np.datetime64("1900-01-01", "ns"), np.datetime64("2100-01-01", "ns"))
 MISSING_TEXTS = ("", "NA", "NaN", "nan")
 #: Cell texts read as a missing number in the sample and air files, compared after
 #: stripping and lower-casing ("NA", "N/A", "NaN", "-" as spreadsheets and lab systems
-#: write them; common practice).  Each non-empty one is counted in the ledger notes
+#: write them; common practice; ``#N/A`` is a spreadsheet's own "not available").  Each
+#: non-empty one is counted in the ledger notes
 #: (:meth:`RawTable.missing_note`), so none is lost silently.
-SAMPLE_MISSING_TEXTS = ("", "na", "n/a", "nan", "-", "--")
+SAMPLE_MISSING_TEXTS = ("", "na", "n/a", "nan", "-", "--", "#n/a")
 #: Texts that mean "below detection" written as words: an error with the ``<limit`` hint
 #: (turning them into a missing value would drop a measured absence; common practice).
 _NOT_DETECTED = ("nd", "n.d.", "bdl", "<dl", "<lod", "lod", "dl", "not detected", "trace", "tr")
@@ -40,6 +41,49 @@ _NOT_DETECTED = ("nd", "n.d.", "bdl", "<dl", "<lod", "lod", "dl", "not detected"
 #: end in a line break); a pass over every cell of a large file costs a good part of
 #: reading it, one search of the text a fraction of that.
 _BLANK = re.compile(r"[^\S\n]")
+#: Error values of a spreadsheet formula (a cell the sheet failed to compute): an error
+#: with the hint to fix the formula, not a missing value (``#N/A`` is missing, above).
+FORMULA_ERRORS = ("#div/0!", "#value!", "#ref!", "#num!", "#name?", "#null!", "#calc!",
+                  "#spill!", "#getting_data", "#error!", "err:502", "err:503", "err:504")
+#: A number followed by a unit in one cell (``12 mm``, ``3.1ug/m3``, ``5 %``).
+_NUMBER_UNIT = re.compile(r"[-+<]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?\s*"
+                          r"[A-Za-z%\u00b5\u00b0][\w/%\u00b5\u00b0.\-]*")
+#: Numbers with grouped thousands: ``1,234.5``, ``1 234.5``, ``1.234,5``, ``1'234``.
+_THOUSANDS = re.compile(r"[-+]?\d{1,3}(?:(?:,\d{3})+(?:\.\d+)?|(?:[ '\u00a0\u202f]\d{3})+"
+                        r"(?:[.,]\d+)?|(?:\.\d{3})+,\d+)")
+
+
+def number_hint(cell: str, censoring: bool = False) -> str:
+    """The hint of a cell that is no number (" (...)"), or "" (common slips of sheets).
+
+    >>> number_hint("1,234.5")
+    " (a thousands separator? write the number without it, e.g. '1234.5')"
+    >>> number_hint("12 mm")[:30]
+    ' (a unit in the cell? the unit'
+    """
+    low = cell.lower()
+    if low in _NOT_DETECTED:
+        return (" (a 'not detected' code? write '<limit', e.g. '<0.02')" if censoring
+                else " (a 'not detected' code? this column takes numbers only: leave the "
+                "cell empty)")
+    if low in FORMULA_ERRORS:
+        return (" (a spreadsheet formula error: correct the formula in the sheet, or leave "
+                "the cell empty if there is no value)")
+    if re.fullmatch(r"[-+<]?\d{1,3},\d{3}", cell):
+        return (" (a decimal comma or a thousands separator? write a decimal point and no "
+                "separator, e.g. '1.234' or '1234')")
+    if re.fullmatch(r"[-+<]?\d+,\d+", cell):
+        return " (a decimal comma? write a decimal point, e.g. '1.5')"
+    if _THOUSANDS.fullmatch(cell):
+        k = max(cell.rfind(","), cell.rfind("."))       # the decimal mark, if any
+        decimal = k > 0 and ("," in cell and "." in cell or len(cell) - k - 1 != 3)
+        whole, frac = (cell[:k], cell[k + 1:]) if decimal else (cell, "")
+        plain = re.sub(r"[ ',.\u00a0\u202f]", "", whole) + ("." + frac if frac else "")
+        return f" (a thousands separator? write the number without it, e.g. '{plain}')"
+    if _NUMBER_UNIT.fullmatch(cell):
+        return (" (a unit in the cell? the unit goes in the column header, 'name [unit]': "
+                "write the number only)")
+    return ""
 
 
 def _open_text(path: Path) -> str:
@@ -62,6 +106,10 @@ def _open_text(path: Path) -> str:
     if raw[:4] in (b"PK\x03\x04", b"\xd0\xcf\x11\xe0"):
         raise InputError("a spreadsheet workbook, not a CSV text file", file=path,
                          expected="the sheet exported as CSV (UTF-8, comma-separated)")
+    if raw[:2] in (b"\xff\xfe", b"\xfe\xff"):
+        raise InputError("a UTF-16 text file (a spreadsheet's 'Unicode text' export?)",
+                         file=path, line=1, expected="a UTF-8 CSV file, comma-separated "
+                         "(save as 'CSV UTF-8')")
     try:
         return raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
@@ -274,14 +322,8 @@ class RawTable:
             bad = ~is_missing
             if bad.any():
                 i = int(odd[np.flatnonzero(bad)[0]])
-                what = "text in a numeric column"
-                cell = str(s.iloc[i]).strip()
-                if cell.lower() in _NOT_DETECTED:
-                    what += (" (a 'not detected' code? write '<limit', e.g. '<0.02')" if censoring
-                             else " (a 'not detected' code? this column takes numbers only: "
-                             "leave the cell empty)")
-                elif re.fullmatch(r"[-+<]?\d+,\d+", cell):
-                    what += " (a decimal comma? write a decimal point, e.g. '1.5')"
+                what = "text in a numeric column" + number_hint(str(s.iloc[i]).strip(),
+                                                                censoring)
                 allowed = ("or empty, NA, N/A, NaN or - for missing" if missing == "samples"
                            else "or empty for missing")
                 raise self.error(what, row=i, column=name, value=s.iloc[i],

@@ -1,0 +1,119 @@
+"""Spreadsheet slips in the cells of the sample, air and met files: a UTF-16 export,
+thousands separators, a unit typed in the cell, the sheet's own error values
+(``#DIV/0!``) and its "not available" (``#N/A``) (docs/data_formats.md, "General rules").
+
+Each refused file gives one InputError naming the file, line, column, value and what
+was expected, with a hint on the slip; ``#N/A`` is read as missing and counted in the
+ledger notes.  The slips are common practice of spreadsheet exports.  Invented sites.
+"""
+import pytest
+
+from workbench.errors import InputError
+from workbench.io import read_air, read_precipitation, read_sites
+from workbench.io.table import number_hint
+
+from tiny_inputs import AIR, PRECIP, SITES, met_text
+
+P_LINES = PRECIP.splitlines()
+
+
+def _cat(tmp_path):
+    (tmp_path / "s.toml").write_text(SITES)
+    return read_sites(tmp_path / "s.toml")
+
+
+def _precip_with(tmp_path, column, cell, line=2):
+    """The tiny precipitation file with one cell (header name) replaced."""
+    head = P_LINES[0].split(",")
+    k = head.index(column)
+    lines = list(P_LINES)
+    cells = lines[line - 1].split(",")
+    cells[k] = f'"{cell}"' if "," in cell else cell
+    lines[line - 1] = ",".join(cells)
+    p = tmp_path / "p.csv"
+    p.write_text("\n".join(lines) + "\n")
+    return p
+
+
+def _error(fn, path, cat):
+    with pytest.raises(InputError) as exc:
+        fn(path, cat)
+    msg = str(exc.value)
+    assert msg.startswith(f"{path}, line "), msg
+    return msg
+
+
+@pytest.mark.parametrize("column, cell, hint", [
+    ("gauge_depth [mm]", "1,234.5", "a thousands separator? write the number without it, "
+                                    "e.g. '1234.5'"),
+    ("gauge_depth [mm]", "1 234.5", "e.g. '1234.5'"),
+    ("gauge_depth [mm]", "1.234,5", "e.g. '1234.5'"),            # decimal-comma locale
+    ("gauge_depth [mm]", "1,234", "a decimal comma or a thousands separator? write a "
+                                  "decimal point and no separator, e.g. '1.234' or '1234'"),
+    ("gauge_depth [mm]", "12 mm", "a unit in the cell? the unit goes in the column header"),
+    ("SO4 [mg/L]", "1.5mg/L", "a unit in the cell?"),
+    ("SO4 [mg/L]", "#DIV/0!", "a spreadsheet formula error: correct the formula"),
+    ("pH", "#VALUE!", "a spreadsheet formula error"),
+    ("conductivity [uS/cm]", "#REF!", "a spreadsheet formula error"),
+])
+def test_sheet_slips_in_a_number_get_a_hint(tmp_path, column, cell, hint):
+    msg = _error(read_precipitation, _precip_with(tmp_path, column, cell), _cat(tmp_path))
+    assert f"line 2, column '{column}': text in a numeric column (" in msg, msg
+    assert hint in msg and f"got '{cell}'" in msg and "expected a number" in msg, msg
+
+
+def test_other_text_gets_no_hint():
+    assert number_hint("abc") == number_hint("12.5.3") == ""
+
+
+def test_na_of_a_sheet_is_missing_and_counted(tmp_path):
+    ds, led = read_precipitation(_precip_with(tmp_path, "SO4 [mg/L]", "#N/A"), _cat(tmp_path))
+    assert ds["SO4"].isnull().values[0]
+    assert any("cells read as missing" in n and "SO4 [mg/L] '#N/A' x1 (line 2)" in n
+               for n in led.notes), led.notes
+
+
+def test_na_of_a_sheet_in_the_met_is_missing_and_counted(tmp_path, cat, met_reader):
+    lines = met_text().splitlines()
+    head = lines[0].split(",") if not lines[0].startswith("#") else lines[1].split(",")
+    i = next(k for k, ln in enumerate(lines) if ln.startswith("alpha,"))
+    cells = lines[i].split(",")
+    cells[[k for k, h in enumerate(head) if h.startswith("pressure")][0]] = "#N/A"
+    lines[i] = ",".join(cells)
+    (tmp_path / "met.csv").write_text("\n".join(lines) + "\n")
+    met, led = met_reader(tmp_path / "met.csv", cat)
+    assert any("'#N/A' x1" in n for n in led.notes), led.notes
+
+
+def test_formula_error_in_the_met_is_located(tmp_path, cat, met_reader):
+    lines = met_text().splitlines()
+    i = next(k for k, ln in enumerate(lines) if ln.startswith("alpha,"))
+    cells = lines[i].split(",")
+    cells[2] = "#DIV/0!"                                 # wind_speed
+    lines[i] = ",".join(cells)
+    (tmp_path / "met.csv").write_text("\n".join(lines) + "\n")
+    with pytest.raises(InputError) as exc:
+        met_reader(tmp_path / "met.csv", cat)
+    msg = str(exc.value)
+    assert f"line {i + 1}, column 'wind_speed [m/s]'" in msg, msg
+    assert "a spreadsheet formula error" in msg and "got '#DIV/0!'" in msg, msg
+
+
+@pytest.mark.parametrize("name, reader", [("p.csv", read_precipitation), ("a.csv", read_air)])
+def test_a_utf16_export_is_named(tmp_path, name, reader):
+    p = tmp_path / name
+    p.write_text(PRECIP if reader is read_precipitation else AIR, encoding="utf-16")
+    msg = _error(reader, p, _cat(tmp_path))
+    assert msg == (f"{p}, line 1: a UTF-16 text file (a spreadsheet's 'Unicode text' "
+                   "export?), expected a UTF-8 CSV file, comma-separated (save as 'CSV UTF-8')")
+
+
+def test_a_utf16_met_and_catalogue_are_named(tmp_path, cat, met_reader):
+    (tmp_path / "met.csv").write_text(met_text(), encoding="utf-16")
+    with pytest.raises(InputError) as exc:
+        met_reader(tmp_path / "met.csv", cat)
+    assert "line 1: a UTF-16 text file" in str(exc.value)
+    (tmp_path / "s16.toml").write_text(SITES, encoding="utf-16")
+    with pytest.raises(InputError) as exc:
+        read_sites(tmp_path / "s16.toml")
+    assert str(exc.value).startswith(f"{tmp_path / 's16.toml'}, line 1: a UTF-16 text file")
