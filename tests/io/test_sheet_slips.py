@@ -117,3 +117,34 @@ def test_a_utf16_met_and_catalogue_are_named(tmp_path, cat, met_reader):
     with pytest.raises(InputError) as exc:
         read_sites(tmp_path / "s16.toml")
     assert str(exc.value).startswith(f"{tmp_path / 's16.toml'}, line 1: a UTF-16 text file")
+
+
+# ------------------------------------------------------------ zero concentrations
+def test_a_zero_concentration_is_censored_with_its_reason(tmp_path):
+    # 0 mg/L of sulfate in a wet week is never a measurement: a non-detect or a missing
+    # value written as 0.  Before, it was read as 0 without a word.
+    ds, led = read_precipitation(_precip_with(tmp_path, "SO4 [mg/L]", "0"), _cat(tmp_path))
+    assert bool(ds["SO4_censored"].values[0]) and ds["SO4"].isnull().values[0]
+    row = led.table[led.table["line"] == 2].iloc[0]
+    assert row["status"] == "flagged"
+    assert "SO4 reported as 0 (censored as below detection: write '<limit', or leave " \
+           "empty if not measured)" in row["reason"].split("; ")
+
+
+def test_zeros_of_a_dry_week_stay_unflagged(tmp_path):
+    # a dry week (gauge 0 mm) whose lab sheet writes 0 in the ion columns
+    lines = list(P_LINES)
+    lines[2] = "alpha,2020-01-14T09:00,2020-01-21T09:00,w1,0.0,0.0,,,0,0,0,0,0,"
+    (tmp_path / "p.csv").write_text("\n".join(lines) + "\n")
+    ds, led = read_precipitation(tmp_path / "p.csv", _cat(tmp_path))
+    assert led.table[led.table["line"] == 3].iloc[0]["status"] == "accepted"
+
+
+def test_a_zero_air_concentration_is_censored(tmp_path):
+    lines = AIR.splitlines()
+    lines[2] = lines[2].replace(",2.0,0.1,", ",0.0,0.1,")            # SO2 0.0 ug/m3
+    (tmp_path / "a.csv").write_text("\n".join(lines) + "\n")
+    ds, led = read_air(tmp_path / "a.csv", _cat(tmp_path))
+    row = led.table[led.table["line"] == 3].iloc[0]
+    assert "SO2 reported as 0 (censored as below detection: write '<limit', or leave " \
+           "empty if not measured)" in row["reason"].split("; ")

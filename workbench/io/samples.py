@@ -58,12 +58,15 @@ def _species_columns(tab: RawTable, allowed, what):
     return out
 
 
-def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None):
+def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero_ok=None):
     """Parse species columns into amounts, with censoring. Returns dict of arrays.
 
     A missing-value code typed as a value (``-999``, ``9999``...) is masked and flagged;
     with `groups` (air files: one site-and-sampler label per row) the range and
-    unit-slip checks of :mod:`workbench.io.plausible` run too.
+    unit-slip checks of :mod:`workbench.io.plausible` run too.  A concentration of
+    exactly 0 is never a measurement (every species here is present at some level): it
+    is censored as below detection, as a negative one, with a reason naming it, except
+    on the rows of `zero_ok` (bool [n]: the dry weeks of a precipitation file).
     """
     data = {}
     for sp, name in cols.items():
@@ -89,11 +92,16 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None):
             ledger_parts.append(why)
         amount = np.where(masked, np.nan, amount)
         neg = (~cens) & (amount < 0)
-        value = np.where(cens | neg, np.nan, amount)
+        zero = (~cens) & (amount == 0)
+        if zero_ok is not None:
+            zero &= ~zero_ok
+        value = np.where(cens | neg | zero, np.nan, amount)
         dl = np.where(cens, amount, np.nan)
-        data[sp] = (value, cens | neg, dl, kind)
+        data[sp] = (value, cens | neg | zero, dl, kind)
         ledger_parts.append(np.where(cens, f"{sp} below detection", ""))
         ledger_parts.append(np.where(neg, f"{sp} negative (censored)", ""))
+        ledger_parts.append(np.where(zero, f"{sp} reported as 0 (censored as below detection:"
+                                     f" write '<limit', or leave empty if not measured)", ""))
     return data
 
 
@@ -310,7 +318,8 @@ def read_precipitation(path, catalogue, flag_map=None):
     flag_norm, flag_note = _flag_words(tab, flag_text, flag_map)
     parts.append(np.where(flag_norm != "", "flags " + flag_norm.astype(str), ""))
     ion_cols = _species_columns(tab, _species.PRECIP_IONS, "precipitation")
-    conc = _concentrations(tab, ion_cols, ("amount_density",), parts, n)
+    conc = _concentrations(tab, ion_cols, ("amount_density",), parts, n,
+                           zero_ok=gauge == 0)                 # a dry week's zeros
     parts.append(np.where(np.isnan(gauge), "gauge depth missing", ""))
     known = set(PRECIP_REQUIRED + PRECIP_OPTIONAL) | set(ion_cols.values())
     unknown = tab.unknown_columns(known)
