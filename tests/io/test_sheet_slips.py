@@ -148,3 +148,49 @@ def test_a_zero_air_concentration_is_censored(tmp_path):
     row = led.table[led.table["line"] == 3].iloc[0]
     assert "SO2 reported as 0 (censored as below detection: write '<limit', or leave " \
            "empty if not measured)" in row["reason"].split("; ")
+
+
+# ------------------------------------------------------------ sampler id typos
+def _weeks(site, ids, start="2020-01-07"):
+    """Weekly precipitation rows of one site, one per sampler id of `ids` in turn."""
+    import pandas as pd
+    t = pd.date_range(f"{start}T09:00", periods=len(ids) + 1, freq="7D")
+    return [f"{site},{a:%Y-%m-%dT%H:%M},{b:%Y-%m-%dT%H:%M},{i},5.0,4.8,5.0,12.0,1.0,0.2,"
+            f"10.0,0.5,0.3," for a, b, i in zip(t[:-1], t[1:], ids)]
+
+
+@pytest.mark.parametrize("typo", ["W-I", "w-1", "W-11", "W 1"])
+def test_a_sampler_id_typo_is_named_in_a_note(tmp_path, typo):
+    ids = ["W-1"] * 30
+    ids[12] = typo
+    (tmp_path / "p.csv").write_text("\n".join([P_LINES[0]] + _weeks("alpha", ids)) + "\n")
+    ds, led = read_precipitation(tmp_path / "p.csv", _cat(tmp_path))
+    assert (ds["sampler_id"].values == typo).sum() == 1            # read as written
+    note = [n for n in led.notes if "sampler_id" in n]
+    assert note == [f"p.csv: sampler_id {typo!r} at alpha: 1 row (line 14), like 'W-1' "
+                    "(29 rows): a typo? Read as another sampler (averaged with the other "
+                    "where their periods overlap)"]
+
+
+def test_two_real_samplers_get_no_note(tmp_path):
+    # a monthly change of samplers, and a collocated short campaign of another design
+    ids = ["W-1"] * 15 + ["W-2"] * 15
+    rows = _weeks("alpha", ids) + [r.replace(",W-1,", ",BULK-A,") for r in _weeks("alpha", ["W-1"] * 2)]
+    (tmp_path / "p.csv").write_text("\n".join([P_LINES[0]] + rows) + "\n")
+    _, led = read_precipitation(tmp_path / "p.csv", _cat(tmp_path))
+    assert not [n for n in led.notes if "sampler_id" in n]
+
+
+def test_a_sampler_id_typo_in_the_air_file(tmp_path):
+    import pandas as pd
+    t = pd.date_range("2020-01-07T09:00", periods=21, freq="7D")
+    ids = ["fp1"] * 20
+    ids[5] = "fpl"
+    rows = [f"alpha,{a:%Y-%m-%dT%H:%M},{b:%Y-%m-%dT%H:%M},{i},2.0,0.1,1.5,1.2,5.0,filter pack"
+            for a, b, i in zip(t[:-1], t[1:], ids)]
+    lines = AIR.splitlines()[:2] + rows
+    (tmp_path / "a.csv").write_text("\n".join(lines) + "\n")
+    _, led = read_air(tmp_path / "a.csv", _cat(tmp_path))
+    assert [n for n in led.notes if "sampler_id" in n] == [
+        "a.csv: sampler_id 'fpl' at alpha: 1 row (line 8), like 'fp1' (19 rows): a typo? "
+        "Read as another sampler (averaged with the other where their periods overlap)"]

@@ -21,6 +21,7 @@ from . import plausible as _plausible
 from .common import (check_intervals, check_overlaps, check_sites, check_time_zones,
                      duplicate_rows, join_reasons, unit_error)
 from .ledger import Ledger
+from .samplerids import typo_notes
 from .table import RawTable
 
 PRECIP_REQUIRED = ("site", "start", "end", "gauge_depth")
@@ -364,6 +365,7 @@ def read_precipitation(path, catalogue, flag_map=None):
         dvars[f"{sp}_detection_limit"] = ("sample", dl[keep], {"units": "mol m-3"})
     ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path)})
     ledger.notes.extend(_unit_slips(tab, ds, ion_cols))
+    ledger.notes.extend(typo_notes(tab.path.name, sites[keep], samplers[keep], tab.lines[keep]))
     return ds, ledger
 
 
@@ -517,6 +519,7 @@ def read_air(path, catalogue, reference_state=None):
     ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path),
                                   "reference_state": str(ref_text) if needs_ref else "none needed"})
     ledger.notes.extend(_air_slips(tab, ds, cols))
+    ledger.notes.extend(typo_notes(tab.path.name, sites[keep], samplers[keep], tab.lines[keep]))
     return ds, ledger
 
 
