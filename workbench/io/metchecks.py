@@ -38,6 +38,18 @@ RADIATION_SLIP_HOURS, RADIATION_SLIP_SHARE = 3, 0.01
 #: Median temperature of a site above which a degC (or degF) header holds kelvin [K]
 #: (60 degC read from the header: no station reports that as its median; common practice).
 KELVIN_MEDIAN_MIN = ZERO_CELSIUS + 150.0
+#: Median temperature of a site above which a degC header holds degF [K]: no station's
+#: median is above 40 degC (the hottest annual means are near 35 degC; from memory), and
+#: 40 degF is 4.4 degC.  With the hours above the hard maximum (60 degC) at
+#: RADIATION_SLIP_HOURS and RADIATION_SLIP_SHARE of the site's hours, this also finds a
+#: cold site's degF record by its summer (common practice).
+FAHRENHEIT_MEDIAN_MIN = ZERO_CELSIUS + 40.0
+#: Median wind speed of a site above which an m/s header may hold km/h [m s-1]: 10 m/s
+#: as the median is found only on exposed summits and polar coasts (from memory); the
+#: values are kept, the rows flagged (common practice).
+KMH_MEDIAN_MIN = 10.0
+#: Hours a site needs before its median is judged [h] (a month; our choice).
+MEDIAN_MIN_HOURS = 720
 
 
 def range_text(name, lo, hi) -> str:
@@ -247,6 +259,26 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
             mask("temperature", med > KELVIN_MEDIAN_MIN,
                  f"temperature looks like kelvin although the header says {unit or 'degC'} "
                  "(masked)")
+            if unit not in ("degF", "°F", "fahrenheit", "degree_Fahrenheit"):
+                t_k = np.where(med > KELVIN_MEDIAN_MIN, np.nan, values["temperature"])
+                g = frame.assign(v=t_k, hot=t_k > RANGES["temperature"][1]).groupby("site")
+                n_hot = g["hot"].transform("sum").to_numpy()
+                count = g["v"].transform("count").to_numpy()
+                med_f = g["v"].transform("median").to_numpy()
+                fahrenheit = (((med_f > FAHRENHEIT_MEDIAN_MIN) & (count >= MEDIAN_MIN_HOURS))
+                              | ((n_hot >= RADIATION_SLIP_HOURS)
+                                 & (n_hot >= RADIATION_SLIP_SHARE * count)))
+                mask("temperature", fahrenheit,
+                     f"temperature looks like degF although the header says {unit or 'degC'} "
+                     "(masked)")
+    # wind in km/h under an m/s header: kept, flagged
+    if "wind_speed" in values and \
+            str(raw_units.get("wind_speed", "")).replace(" ", "") in ("m/s", "m/s1", "ms-1", "m*s-1"):
+        g = frame.assign(v=values["wind_speed"]).groupby("site")["v"]
+        med_u = g.transform("median").to_numpy()
+        flag((med_u > KMH_MEDIAN_MIN) & (g.transform("count").to_numpy() >= MEDIAN_MIN_HOURS),
+             f"wind speed median above {KMH_MEDIAN_MIN:g} m/s at this site: km/h under an m/s "
+             "header? (kept)")
     # hard ranges
     for name, (lo, hi) in RANGES.items():
         if name in values:
