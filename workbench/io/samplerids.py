@@ -4,7 +4,11 @@ A sampler id typed wrong on a few rows (``RDG-PI`` for ``RDG-P1``, ``rdg-p1``) m
 new sampler: its rows stand alone as another sampler's samples, or are averaged with the
 real sampler's where they overlap (collocated samplers).  Nothing in the numbers says so,
 so :func:`typo_notes` names such an id in a ledger note; the rows are read as written
-(the id could be a real short-lived sampler).  The thresholds are our choice.
+(the id could be a real short-lived sampler).  Two ids of a site that differ only in case,
+blanks or separators (``RDG-P1``, ``rdg-p1``) over the same period are one sampler's
+sample uploaded twice (two exports put together): :func:`check_spellings` refuses the
+file, since averaging them as collocated samplers would count the sample twice.  The
+thresholds are our choice.
 """
 from __future__ import annotations
 
@@ -17,6 +21,51 @@ RARE_ROWS = 3
 COMMON_FACTOR = 10
 #: Characters a hand or a font confuses (compared as the first of each pair).
 _LOOKALIKE = str.maketrans({"O": "0", "o": "0", "I": "1", "l": "1", "i": "1", "L": "1"})
+
+
+def _spelling(text: str) -> str:
+    """The id without case, blanks, dashes, dots and underscores."""
+    return "".join(ch for ch in text if ch not in " -_./").lower()
+
+
+def check_spellings(tab, sites, samplers, start, end, rows=None):
+    """Raise a located InputError for two spellings of one sampler over one period.
+
+    Parameters
+    ----------
+    tab : RawTable
+    sites, samplers : numpy.ndarray of str
+        Per data row.
+    start, end : numpy.ndarray of datetime64[ns]
+        The row's period [UTC].
+    rows : numpy.ndarray of bool, optional
+        The rows to compare (default all; e.g. without dropped repeats).
+    """
+    df = pd.DataFrame({"site": np.asarray(sites, dtype=object).astype(str),
+                       "id": np.asarray(samplers, dtype=object).astype(str),
+                       "start": start, "end": end, "row": np.arange(len(sites))})
+    if rows is not None:
+        df = df[np.asarray(rows, bool)]
+    df = df[df["id"] != ""]
+    if df.empty:
+        return
+    df["key"] = df["id"].map(_spelling)
+    n_ids = df.groupby(["site", "key", "start", "end"])["id"].transform("nunique")
+    clash = df[n_ids > 1]
+    if clash.empty:
+        return
+    for _, grp in clash.groupby(["site", "key", "start", "end"], sort=False):
+        first = grp.iloc[0]
+        other = grp[grp["id"] != first["id"]].iloc[0]
+        break
+    i = int(max(first["row"], other["row"]))
+    j = int(min(first["row"], other["row"]))
+    raise tab.error(
+        f"sampler_id differs from {str(tab.frame['sampler_id'].iloc[j])!r} (line "
+        f"{int(tab.lines[j])}) only in case, blanks or separators, over the same period (one "
+        f"sample uploaded twice under two spellings?)", row=i, column="sampler_id",
+        value=tab.frame["sampler_id"].iloc[i],
+        expected="one spelling of each sampler id (keep one row of the sample)")
 
 
 def _key(text: str) -> str:

@@ -21,7 +21,8 @@ from . import plausible as _plausible
 from .common import (check_intervals, check_overlaps, check_sites, check_time_zones,
                      duplicate_rows, join_reasons, unit_error)
 from .ledger import Ledger
-from .samplerids import typo_notes
+from .samplerids import check_spellings, typo_notes
+from .shifted import check_shifted
 from .table import RawTable
 
 PRECIP_REQUIRED = ("site", "start", "end", "gauge_depth")
@@ -244,6 +245,7 @@ def read_precipitation(path, catalogue, flag_map=None):
     repeat, repeat_why, repeat_note = duplicate_rows(tab, sites, samplers, start, end,
                                                      "sample")
     check_time_zones(tab, sites, mask=~repeat)
+    check_spellings(tab, sites, samplers, start, end, rows=~repeat)
     check_overlaps(tab, sites, samplers, start, end, mask=~repeat)
     parts = [repeat_why]
 
@@ -321,6 +323,8 @@ def read_precipitation(path, catalogue, flag_map=None):
     ion_cols = _species_columns(tab, _species.PRECIP_IONS, "precipitation")
     conc = _concentrations(tab, ion_cols, ("amount_density",), parts, n,
                            zero_ok=gauge == 0)                 # a dry week's zeros
+    check_shifted(tab, {ion_cols[sp]: ~np.isnan(v) | c for sp, (v, c, _, _) in conc.items()},
+                  rows=~repeat)
     parts.append(np.where(np.isnan(gauge), "gauge depth missing", ""))
     known = set(PRECIP_REQUIRED + PRECIP_OPTIONAL) | set(ion_cols.values())
     unknown = tab.unknown_columns(known)
@@ -472,6 +476,7 @@ def read_air(path, catalogue, reference_state=None):
                 methods[sp] = tab.text(name)
         if sp not in methods and method_all is not None:
             methods[sp] = method_all
+    check_spellings(tab, sites, samplers, start, end, rows=~repeat)
     for sp in cols:
         v, c, _, _ = conc[sp]
         check_overlaps(tab, sites, samplers, start, end, mask=(~np.isnan(v) | c) & ~repeat,
