@@ -124,3 +124,45 @@ def test_two_spellings_over_different_periods_are_read(tmp_path):
     (tmp_path / "p.csv").write_text("\n".join([HEAD] + rows) + "\n")
     ds, _ = read_precipitation(tmp_path / "p.csv", _cat(tmp_path))
     assert ds.sizes["sample"] == 10
+
+
+# ------------------------------------------- met precipitation against the gauge
+def _met_and_samples(n_weeks, met_factor):
+    """Weekly samples (gauge depth [mm]) and hourly met precipitation whose week sums are
+    the gauge depths times `met_factor`, spread over 20 wet hours a week."""
+    import xarray as xr
+    rng = np.random.default_rng(3)
+    t = pd.date_range("2021-01-01T01:00", periods=24 * 7 * n_weeks, freq="h")
+    gauge = np.round(rng.uniform(5, 40, n_weeks), 1)
+    p = np.zeros(len(t))
+    for w in range(n_weeks):
+        p[w * 168 + 10:w * 168 + 30] = gauge[w] * met_factor / 20
+    met = xr.Dataset({"precipitation": (("site", "time"), p[None])},
+                     coords={"site": ["alpha"], "time": t.values})
+    starts = (t[0] - pd.Timedelta("1h") + pd.to_timedelta(np.arange(n_weeks) * 7, "D")).values
+    samples = xr.Dataset({"site": ("sample", ["alpha"] * n_weeks),
+                          "line": ("sample", np.arange(2, n_weeks + 2)),
+                          "start": ("sample", starts),
+                          "end": ("sample", starts + np.timedelta64(7, "D")),
+                          "gauge_depth": ("sample", gauge)})
+    return met, samples
+
+
+@pytest.mark.parametrize("factor, near, words", [(1 / 25.4, "1/25.4", "inch and mm"),
+                                                 (10.0, "10", "cm and mm")])
+def test_met_precipitation_in_another_unit_than_the_gauge_is_named(factor, near, words):
+    from workbench.io.metchecks import gauge_comparison, gauge_slip_notes
+    gc = gauge_comparison(*_met_and_samples(12, factor))
+    assert gc["suspicious"].all()
+    notes = gauge_slip_notes(gc, "met.csv")
+    assert len(notes) == 1 and notes[0].startswith(
+        "met.csv: precipitation at alpha: 12 of 12 samples far from their gauge depth")
+    assert f"near {near}: {words} mixed between the met's precipitation and the gauge" in notes[0]
+
+
+def test_met_precipitation_that_agrees_or_scatters_gets_no_note():
+    from workbench.io.metchecks import gauge_comparison, gauge_slip_notes
+    assert gauge_slip_notes(gauge_comparison(*_met_and_samples(12, 0.9)), "met.csv") == []
+    # far off by a factor that is no unit (3): flagged samples, but no unit named
+    gc = gauge_comparison(*_met_and_samples(12, 3.0))
+    assert gc["suspicious"].all() and gauge_slip_notes(gc, "met.csv") == []
