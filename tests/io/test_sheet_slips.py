@@ -194,3 +194,26 @@ def test_a_sampler_id_typo_in_the_air_file(tmp_path):
     assert [n for n in led.notes if "sampler_id" in n] == [
         "a.csv: sampler_id 'fpl' at alpha: 1 row (line 8), like 'fp1' (19 rows): a typo? "
         "Read as another sampler (averaged with the other where their periods overlap)"]
+
+
+# ------------------------------------------------------------ totals rows
+@pytest.mark.parametrize("row, hint", [
+    (",Total,,,29.0,,,,,,,,,", "an empty site cell: a totals or summary row from a "
+                               "spreadsheet? remove it"),
+    (",,,,29.0,,,,,,,,,", "an empty site cell"),
+    ("Grand total,,,,29.0,,,,,,,,,", "a totals or summary row from a spreadsheet? remove it"),
+])
+def test_a_totals_row_at_the_bottom_is_named(tmp_path, row, hint):
+    (tmp_path / "p.csv").write_text(PRECIP + row + "\n")
+    msg = _error(read_precipitation, tmp_path / "p.csv", _cat(tmp_path))
+    assert f"line 6, column 'site': site not in the catalogue ({hint}): got " in msg, msg
+
+
+def test_a_totals_row_of_the_met_is_named(tmp_path, cat, met_reader):
+    text = met_text()
+    n = len(text.splitlines())
+    (tmp_path / "met.csv").write_text(text + ",Mean,3.5,5.1,80,40,0.1,1010.0,0.5\n")
+    with pytest.raises(InputError) as exc:
+        met_reader(tmp_path / "met.csv", cat)
+    assert (f"line {n + 1}, column 'site': site not in the catalogue (an empty site cell: a "
+            "totals or summary row from a spreadsheet? remove it)") in str(exc.value)
