@@ -186,7 +186,8 @@ def test_decimal_comma_in_a_quoted_cell(tmp_path, value, hint):
 
 
 @pytest.mark.parametrize("stamp,hint", [
-    ("2020-01-14T24:00", "(24:00? write 00:00 of the next day)"),
+    ("2020-01-14T24:30", "(an hour of 24 or more? hours run 00-23; only 24:00 may end a day)"),
+    ("2020-01-14T25:00", "(an hour of 24 or more?"),   # 24:00 is read: test_sheet_slips
     ("14/01/2020 09:00", "(a date in day/month or month/day order? write year-month-day"),
 ])
 def test_timestamp_slips_get_a_hint(tmp_path, stamp, hint):

@@ -6,6 +6,7 @@ Each refused file gives one InputError naming the file, line, column, value and 
 was expected, with a hint on the slip; ``#N/A`` is read as missing and counted in the
 ledger notes.  The slips are common practice of spreadsheet exports.  Invented sites.
 """
+import pandas as pd
 import pytest
 
 from workbench.errors import InputError
@@ -217,3 +218,39 @@ def test_a_totals_row_of_the_met_is_named(tmp_path, cat, met_reader):
         met_reader(tmp_path / "met.csv", cat)
     assert (f"line {n + 1}, column 'site': site not in the catalogue (an empty site cell: a "
             "totals or summary row from a spreadsheet? remove it)") in str(exc.value)
+
+
+# ------------------------------------------------------------ 24:00 end-of-day labels
+def test_end_of_day_labels_are_the_next_day_with_a_note(tmp_path):
+    # before: "not an ISO 8601 timestamp (24:00? write 00:00 of the next day)"
+    lines = list(P_LINES)
+    lines[1] = lines[1].replace(",2020-01-14T09:00,", ",2020-01-13T24:00,")
+    lines[2] = lines[2].replace("alpha,2020-01-14T09:00,", "alpha,2020-01-13 24:00,")
+    (tmp_path / "p.csv").write_text("\n".join(lines) + "\n")
+    ds, led = read_precipitation(tmp_path / "p.csv", _cat(tmp_path))
+    assert str(ds["end"].values[0])[:16] == "2020-01-13T23:00"        # 00:00 local at +1 h
+    assert str(ds["start"].values[1])[:16] == "2020-01-13T23:00"
+    assert "p.csv: labels at 24:00 (end of day) in 'start', 'end' read as 00:00 of the next " \
+           "day" in led.notes, led.notes
+
+
+def test_end_of_day_labels_of_the_met(tmp_path, cat, met_reader):
+    # hour-ending labels: the day's last hour written 24:00 (zoned too) is 00:00 next day
+    text = met_text()
+    plain = met_reader(_write_met(tmp_path / "a.csv", text), cat)
+    lines = text.splitlines()
+    for k, ln in enumerate(lines):
+        if ln.startswith("alpha,") and ln[17:22] == "00:00":
+            day = (pd.Timestamp(ln[6:16]) - pd.Timedelta("1D")).strftime("%Y-%m-%d")
+            lines[k] = f"alpha,{day}T24:00{ln[22:]}"
+    assert sum("T24:00" in ln for ln in lines) == 2
+    eod = met_reader(_write_met(tmp_path / "b.csv", "\n".join(lines) + "\n"), cat)
+    assert eod[0]["temperature"].equals(plain[0]["temperature"])
+    assert eod[1].notes[-1] == "b.csv: labels at 24:00 (end of day) in 'time' read as 00:00 " \
+                               "of the next day"
+    assert not [n for n in plain[1].notes if "24:00" in n]
+
+
+def _write_met(path, text):
+    path.write_text(text)
+    return path

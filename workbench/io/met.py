@@ -106,6 +106,8 @@ def read_met(path, catalogue):
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
+    if tab.end_of_day_note():
+        ledger.notes.append(tab.end_of_day_note())
     return ds, ledger
 
 

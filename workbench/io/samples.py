@@ -343,6 +343,8 @@ def read_precipitation(path, catalogue, flag_map=None):
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
+    if tab.end_of_day_note():
+        ledger.notes.append(tab.end_of_day_note())
     if flag_note:
         ledger.notes.append(f"{tab.path.name}: {flag_note}")
     keep = ~empty
@@ -498,6 +500,8 @@ def read_air(path, catalogue, reference_state=None):
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
+    if tab.end_of_day_note():
+        ledger.notes.append(tab.end_of_day_note())
     keep = ~empty
     dvars = {
         "site": ("period", sites[keep].astype(str)),

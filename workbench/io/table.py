@@ -120,16 +120,48 @@ def _open_text(path: Path) -> str:
                          expected="a UTF-8 CSV file (Latin-1 or Windows-1252? save as UTF-8)") from None
 
 
+#: The end of a day written as 24:00 (ISO 8601:2004, 4.2.3; from memory), with or without
+#: seconds and a zone: read as 00:00 of the next day, with a note.
+_END_OF_DAY = re.compile(r"\d{4}-\d\d-\d\d[T ]24:00(?::00(?:\.0+)?)?(?:Z|[+-]\d\d(?::?\d\d)?)?")
+
+
+def end_of_day(text: pd.Series) -> np.ndarray:
+    """True for the texts that label a day's end as 24:00 [bool].
+
+    >>> end_of_day(pd.Series(["2021-04-03T24:00", "2021-04-03 24:00+01:00", "24:00",
+    ...                       "2021-04-03T23:00", "2021-04-03T24:30"])).tolist()
+    [True, True, False, False, False]
+    """
+    return text.astype(str).str.fullmatch(_END_OF_DAY).to_numpy(dtype=bool)
+
+
 def parse_iso(text: pd.Series, utc: bool) -> np.ndarray:
     """ISO 8601 time texts as datetime64[ns]; NaT where a text is no time.
 
     `utc`: the texts carry an offset (converted to UTC, the zone dropped); else they are
-    naive and returned as written (local standard time, shifted by the caller).
+    naive and returned as written (local standard time, shifted by the caller).  A day's
+    end written 24:00 is 00:00 of the next day (:func:`end_of_day`).
     """
+    eod = end_of_day(text)
+    if eod.any():
+        text = text.copy()
+        text[eod] = text[eod].str.replace("24:00", "00:00", n=1, regex=False)
     t = pd.to_datetime(text, format="ISO8601", utc=utc, errors="coerce")
     if utc:
         t = t.dt.tz_localize(None)
-    return t.to_numpy().astype("datetime64[ns]")
+    out = t.to_numpy().astype("datetime64[ns]")
+    if eod.any():
+        out[eod] = out[eod] + np.timedelta64(1, "D")
+    return out
+
+
+def end_of_day_note(file_name: str, columns) -> str:
+    """The ledger note of the columns whose 24:00 labels were read as the next day's 00:00
+    ("" for none)."""
+    if not columns:
+        return ""
+    return (f"{file_name}: labels at 24:00 (end of day) in "
+            f"{', '.join(repr(c) for c in columns)} read as 00:00 of the next day")
 
 
 @dataclass
@@ -161,6 +193,8 @@ class RawTable:
     missing_seen: dict = field(default_factory=dict)
     #: column name -> bool array: the timestamp carries a zone (``Z`` or an offset).
     zoned: dict = field(default_factory=dict)
+    #: Time columns with a 24:00 label (read as 00:00 of the next day), in order.
+    end_of_day: list = field(default_factory=list)
 
     # ------------------------------------------------------------------ reading
     @classmethod
@@ -355,6 +389,8 @@ class RawTable:
                              expected="an ISO 8601 timestamp such as 2020-01-09T14:00")
         aware = s.str.contains(_OFFSET).to_numpy()
         self.zoned[name] = aware
+        if end_of_day(s).any() and name not in self.end_of_day:
+            self.end_of_day.append(name)
         out = np.empty(len(s), dtype="datetime64[ns]")
         if aware.any():
             tv = parse_iso(s[aware], utc=True)
@@ -382,8 +418,9 @@ class RawTable:
             hint = ""
             if re.fullmatch(r"\d{5}(\.\d*)?", str(s.loc[idx])):
                 hint = " (an Excel date serial number? format the column as a date first)"
-            elif re.search(r"[T ]24:00", str(s.loc[idx])):
-                hint = " (24:00? write 00:00 of the next day)"
+            elif re.search(r"[T ](?:2[4-9]|[3-9]\d):\d\d", str(s.loc[idx])):
+                hint = (" (an hour of 24 or more? hours run 00-23; only 24:00 may end a "
+                        "day)")
             elif re.match(r"\d{1,2}[./]\d{1,2}[./]\d{2,4}", str(s.loc[idx])):
                 hint = (" (a date in day/month or month/day order? write year-month-day, "
                         "e.g. 2020-01-09T14:00)")
@@ -405,6 +442,11 @@ class RawTable:
         if not parts:
             return ""
         return f"{self.path.name}: cells read as missing (as empty cells): " + "; ".join(parts)
+
+    def end_of_day_note(self) -> str:
+        """The ledger note of 24:00 labels read as the next day's 00:00 ("" for none)."""
+        return end_of_day_note(self.path.name, [self.raw_headers.get(c, c)
+                                                for c in self.end_of_day])
 
     def unknown_columns(self, known) -> list[str]:
         return [self.raw_headers[n] for n in self.headers if n not in known]
