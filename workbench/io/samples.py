@@ -68,7 +68,8 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero
     unit-slip checks of :mod:`workbench.io.plausible` run too.  A concentration of
     exactly 0 is never a measurement (every species here is present at some level): it
     is censored as below detection, as a negative one, with a reason naming it, except
-    on the rows of `zero_ok` (bool [n]: the dry weeks of a precipitation file).
+    on the rows of `zero_ok` (bool [n]: the dry weeks of a precipitation file, and rows
+    dropped as exact repeats).
     """
     data = {}
     for sp, name in cols.items():
@@ -322,7 +323,7 @@ def read_precipitation(path, catalogue, flag_map=None):
     parts.append(np.where(flag_norm != "", "flags " + flag_norm.astype(str), ""))
     ion_cols = _species_columns(tab, _species.PRECIP_IONS, "precipitation")
     conc = _concentrations(tab, ion_cols, ("amount_density",), parts, n,
-                           zero_ok=gauge == 0)                 # a dry week's zeros
+                           zero_ok=(gauge == 0) | repeat)      # a dry week, a dropped repeat
     check_shifted(tab, {ion_cols[sp]: ~np.isnan(v) | c for sp, (v, c, _, _) in conc.items()},
                   rows=~repeat)
     parts.append(np.where(np.isnan(gauge), "gauge depth missing", ""))
@@ -453,7 +454,8 @@ def read_air(path, catalogue, reference_state=None):
                              expected="an air concentration unit such as ug/m3 or ppb")
     parts = [repeat_why]
     groups = np.char.add(np.char.add(sites.astype(str), "\x1f"), samplers.astype(str))
-    conc = _concentrations(tab, cols, ("amount_density", "mixing_ratio"), parts, n, groups)
+    conc = _concentrations(tab, cols, ("amount_density", "mixing_ratio"), parts, n, groups,
+                           zero_ok=repeat)                     # a dropped repeat
     ref_text = tab.meta.get("reference_state", reference_state)
     needs_ref = any(k == "amount_density" for *_, k in conc.values())
     ref = None
