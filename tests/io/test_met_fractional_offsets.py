@@ -188,13 +188,34 @@ def test_start_labels_move_as_end_labels(tmp_path, cat, monkeypatch):
     assert [n for n in start[1].notes if "moved" in n] == [n for n in end[1].notes if "moved" in n]
 
 
-def test_labels_already_on_the_utc_hour_stay(tmp_path, cat, monkeypatch):
-    # 10:30 local at +9.5 = 01:00 UTC, on the grid already: read as before, no note
+def test_labels_already_on_the_utc_hour_stay_with_a_note(tmp_path, cat, monkeypatch):
+    # 10:30 local at +9.5 = 01:00 UTC, on the grid already: read as it is (an exact UTC
+    # hour end), and said in a note, as the moved labels are (before: no word)
     met, led = _both(_csv(tmp_path / "met.csv", [("kestrel", "2021-06-01T10:30", 1.0),
                                                  ("kestrel", "2021-06-01T11:30", 2.0)]),
                      cat, monkeypatch)
     assert _landed(met, "kestrel") == {"2021-06-01T01:00": 1.0, "2021-06-01T02:00": 2.0}
-    assert not [n for n in led.notes if "moved" in n]
+    assert not [n for n in led.notes if "moved 30 min" in n]
+    assert led.notes[0] == ("met kestrel: labels at utc_offset_h 9.5 already on the whole UTC "
+                            "hour (minute 30 of their clock) read as UTC hour ends, not moved")
+
+
+def test_a_site_mixing_moved_and_utc_labels_is_noted_once(tmp_path, cat, monkeypatch):
+    # +9.5 h: 09:00 -> 23:30 UTC -> 00:00 (moved); 10:30 = 01:00 UTC (kept);
+    # 11:00 -> 01:30 -> 02:00 (moved); +5.75 h: 10:45 = 05:00 UTC (kept), 12:00 -> 06:00
+    rows = [("kestrel", "2021-06-01T09:00", 1.0), ("kestrel", "2021-06-01T10:30", 2.0),
+            ("kestrel", "2021-06-01T11:00", 3.0),
+            ("marten", "2021-06-01T10:45", 4.0), ("marten", "2021-06-01T12:00", 5.0)]
+    met, led = _both(_csv(tmp_path / "met.csv", rows), cat, monkeypatch)
+    assert _landed(met, "kestrel") == {"2021-06-01T00:00": 1.0, "2021-06-01T01:00": 2.0,
+                                       "2021-06-01T02:00": 3.0}
+    assert _landed(met, "marten") == {"2021-06-01T05:00": 4.0, "2021-06-01T06:00": 5.0}
+    mine = [n for n in led.notes if n.startswith(("met kestrel:", "met marten:"))
+            and "UTC hour" in n]
+    assert len(mine) == 2
+    assert "each hour moved 30 min later" in mine[0] and "minute 30 of their clock" in mine[0]
+    assert "minute 45 of their clock" in mine[1] and "moved 15 min earlier" in mine[1]
+    assert all(n.endswith("mixes both kinds of label: check its logger's clock") for n in mine)
 
 
 @pytest.mark.parametrize("site, label", [("otter", "2021-06-01T10:20"),     # whole-hour site
@@ -272,6 +293,49 @@ def test_night_radiation_check_still_behaves(tmp_path, cat):
     assert not [r for r in reasons(df["sr"]) if "night" in r]
     late = df.groupby(["site", df["time"].str[:7]])["sr"].shift(-3)     # 3 h too early
     assert [r for r in reasons(late.fillna(0)) if "night" in r]
+
+
+@pytest.mark.filterwarnings("ignore:DatetimeIndex.dayofyear")      # inside pvlib
+@pytest.mark.parametrize("zone, hours, first_utc", [
+    ("+05:45", 5.75, "2021-03-09T19:00"),     # 01:00+05:45 = 19:15 UTC -> 19:00
+    ("+09:30", 9.5, "2021-03-09T16:00"),      # 01:00+09:30 = 15:30 UTC -> 16:00
+    ("-03:30", -3.5, "2021-03-10T05:00")])    # 01:00-03:30 = 04:30 UTC -> 05:00
+def test_night_check_of_zoned_fractional_labels_at_a_whole_offset_site(tmp_path, cat, zone,
+                                                                      hours, first_utc):
+    # otter's catalogue offset is whole (+1 h) but its logger writes zoned labels of a
+    # fractional clock: each label is read by its own zone (UTC = local - zone), moved to
+    # the nearest UTC hour end (15 or 30 min), and the night check sees the sun of that
+    # UTC hour at otter.  The record is pvlib's Haurwitz clear sky (Haurwitz 1945, the
+    # sun by SPA) averaged over each MEASURED hour; it must raise no "at night" flag, and
+    # the same record three hours off must (metchecks.NIGHT_ELEVATION_DEG,
+    # NIGHT_RADIATION_MAX).
+    pvlib = pytest.importorskip("pvlib")
+    _, _, lat, lon, off = SITES[3]
+    assert off == 1.0                                                  # a whole offset
+    frames = []
+    for start in ("2021-03-10T01:00", "2021-06-10T01:00", "2021-12-10T01:00"):
+        local = pd.date_range(start, periods=24 * 8, freq="h")
+        end_utc = (local - pd.Timedelta(hours=hours)).tz_localize("UTC")
+        fine = pd.date_range(end_utc[0] - pd.Timedelta("55min"), end_utc[-1], freq="5min")
+        ghi = pvlib.location.Location(lat, lon).get_clearsky(fine, model="haurwitz")["ghi"]
+        hourly = ghi.rolling(12).mean().reindex(end_utc).to_numpy()
+        frames.append(pd.DataFrame({"time": local.strftime("%Y-%m-%dT%H:%M") + zone,
+                                    "sr": np.round(hourly, 1)}))
+    df = pd.concat(frames, ignore_index=True)
+
+    def read(sr):
+        rows = [f"otter,{t},3.0,20,70,{v},0,1005\n" for t, v in zip(df["time"], sr)]
+        (tmp_path / "met.csv").write_text(HEAD + "".join(rows))
+        met, led = read_met(tmp_path / "met.csv", cat)
+        return met, led, set(led.table["reason"].str.split("; ").explode()) - {""}
+
+    met, led, reasons = read(df["sr"])
+    assert df["sr"].max() > 700                                       # real days
+    assert not [r for r in reasons if "night" in r]
+    assert any(n.startswith(f"met otter: labels at {zone} put the hours") for n in led.notes)
+    assert str(met["time"].values[0])[:16] == first_utc        # the first label, moved
+    late = df.groupby(df["time"].str[:7])["sr"].shift(-3)              # 3 h too early
+    assert [r for r in read(late.fillna(0))[2] if "night" in r]
 
 
 def _sample_case(tmp_path, cat, site="kestrel"):

@@ -257,3 +257,42 @@ def test_pure_checks_input_types(kind):
         assert isinstance(idiff, xr.DataArray) and isinstance(lim, xr.DataArray)
     np.testing.assert_allclose(np.asarray(idiff), expected_id)
     np.testing.assert_allclose(np.asarray(lim), [15.0, 30.0])
+
+
+# ------------------------------------------------------------ gauge comparison band
+def _gauge_case(hours, gauge):
+    """One week's sample (gauge depth [mm]) and hourly met whose precipitation holds
+    `hours` [mm] from the sample's first hour; the rest 0."""
+    import pandas as pd
+
+    from workbench.io.metchecks import gauge_comparison
+    t = pd.date_range("2021-06-01T01:00", periods=24 * 10, freq="h")
+    p = np.zeros(len(t))
+    p[24:24 + len(hours)] = hours
+    met = xr.Dataset({"precipitation": (("site", "time"), p[None])},
+                     coords={"site": ["a"], "time": t.values})
+    s = xr.Dataset({"site": ("sample", ["a"]), "line": ("sample", [2]),
+                    "start": ("sample", [np.datetime64("2021-06-02T00:00", "ns")]),
+                    "end": ("sample", [np.datetime64("2021-06-09T00:00", "ns")]),
+                    "gauge_depth": ("sample", [gauge])})
+    return gauge_comparison(met, s).iloc[0]
+
+
+@pytest.mark.parametrize("hours, gauge, suspicious", [
+    # on the bounds in the decimals typed: inside the band (met 2.0 of gauge 1.0 mm, the
+    # hours' sum computed as 2.0000000000000004; 1.0 of 2.0 mm, ratio 0.49999999999999994)
+    ([0.1] * 20, 1.0, False),
+    ([0.1] * 10, 2.0, False),
+    # just beyond them: outside
+    ([0.1] * 21, 1.0, True),
+    ([0.1] * 10, 2.1, True),
+    # met 2.0 mm (ten hours of 0.2, summed 1.9999999999999998) of gauge 0.9 mm: the
+    # deeper one equals the smallest depth judged (2 mm), so it is judged (ratio 2.2)
+    ([0.2] * 10, 0.9, True),
+])
+def test_gauge_band_bounds_fall_on_the_documented_side(hours, gauge, suspicious):
+    # the band 0.5-2 (a factor of two, common practice) and the 2 mm floor include their
+    # bounds (metchecks.gauge_comparison); the comparison allows for the rounding of the
+    # summed hours (qa.THRESHOLD_RTOL), as the other screening checks do
+    row = _gauge_case(hours, gauge)
+    assert bool(row["suspicious"]) is suspicious

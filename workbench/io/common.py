@@ -1,12 +1,19 @@
 """Pieces shared by the readers of samples, concentrations and meteorology."""
 from __future__ import annotations
 
+import re
+
 import numpy as np
 import pandas as pd
 
 from ..errors import InputError, suggest
 from .ledger import consecutive_runs
 from .table import RawTable
+
+
+#: First words of a spreadsheet's totals or summary row (common practice of sheets).
+_SUMMARY = re.compile(r"(?:grand )?(?:totals?|sums?|mean|average|median|min(?:imum)?|"
+                      r"max(?:imum)?|count)\b", re.IGNORECASE)
 
 
 def check_sites(tab: RawTable, catalogue) -> np.ndarray:
@@ -19,12 +26,15 @@ def check_sites(tab: RawTable, catalogue) -> np.ndarray:
         if sites[i].strip().lower() == "site":
             hint = " (a repeated header line? keep one header at the top)"
         elif sites[i] == "":
-            hint = " (an empty site cell)"
+            words = [str(c).strip().lower() for c in tab.frame.iloc[i].tolist()]
+            hint = (" (an empty site cell: a totals or summary row from a spreadsheet? remove it)"
+                    if any(_SUMMARY.match(w) for w in words)
+                    else " (an empty site cell)")
         elif sites[i].strip().lower() in {c.lower() for c in catalogue.ids}:
             same = next(c for c in catalogue.ids if c.lower() == sites[i].strip().lower())
             hint = (f" (differs from the catalogue's {same!r} only in case or blanks: site "
                     "ids are compared exactly)")
-        elif sites[i].strip().lower().startswith(("total", "sum", "mean", "average")):
+        elif _SUMMARY.match(sites[i].strip()):
             hint = " (a totals or summary row from a spreadsheet? remove it)"
         raise tab.error("site not in the catalogue" + hint, row=i, column="site", value=sites[i],
                         expected="one of " + ", ".join(catalogue.ids) + suggest(sites[i], catalogue.ids))

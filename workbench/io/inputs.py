@@ -10,7 +10,7 @@ import xarray as xr
 
 from .ledger import Ledger
 from .met import read_met
-from .metchecks import gauge_comparison
+from .metchecks import gauge_comparison, gauge_slip_notes
 from .metstore import is_lazy
 from .samples import read_air, read_precipitation
 from .sites import SiteCatalogue, read_sites
@@ -197,6 +197,7 @@ def load_inputs(sites, precipitation=None, air=None, met=None, reference_state=N
         if len(bad):
             inp.ledger.add_reason(inp.paths["precipitation"], bad["line"].to_numpy(),
                                   "hourly met precipitation over the sample far from the gauge depth")
+        inp.ledger.notes.extend(gauge_slip_notes(gc, Path(met).name))
     return inp
 
 

@@ -98,12 +98,16 @@ def read_met(path, catalogue):
     pos = pd.Index(list(catalogue.ids)).get_indexer(sites)
     ledger.notes[:0] = methours.move_notes(      # one per site whose hours were moved
         list(catalogue.ids), catalogue.utc_offsets(list(catalogue.ids)),
-        methours.moved_pairs(pos, clock, tab.zoned["time"], t != measured))
+        methours.moved_pairs(pos, clock, tab.zoned["time"], t != measured),
+        methours.moved_pairs(pos, clock, tab.zoned["time"],
+                             methours.kept_on_utc(measured, clock)))
     unknown = tab.unknown_columns(set(MET_VARIABLES) | {"site", "time"})
     if unknown:
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
+    if tab.end_of_day_note():
+        ledger.notes.append(tab.end_of_day_note())
     return ds, ledger
 
 

@@ -38,6 +38,18 @@ RADIATION_SLIP_HOURS, RADIATION_SLIP_SHARE = 3, 0.01
 #: Median temperature of a site above which a degC (or degF) header holds kelvin [K]
 #: (60 degC read from the header: no station reports that as its median; common practice).
 KELVIN_MEDIAN_MIN = ZERO_CELSIUS + 150.0
+#: Median temperature of a site above which a degC header holds degF [K]: no station's
+#: median is above 40 degC (the hottest annual means are near 35 degC; from memory), and
+#: 40 degF is 4.4 degC.  With the hours above the hard maximum (60 degC) at
+#: RADIATION_SLIP_HOURS and RADIATION_SLIP_SHARE of the site's hours, this also finds a
+#: cold site's degF record by its summer (common practice).
+FAHRENHEIT_MEDIAN_MIN = ZERO_CELSIUS + 40.0
+#: Median wind speed of a site above which an m/s header may hold km/h [m s-1]: 10 m/s
+#: as the median is found only on exposed summits and polar coasts (from memory); the
+#: values are kept, the rows flagged (common practice).
+KMH_MEDIAN_MIN = 10.0
+#: Hours a site needs before its median is judged [h] (a month; our choice).
+MEDIAN_MIN_HOURS = 720
 
 
 def range_text(name, lo, hi) -> str:
@@ -247,6 +259,26 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
             mask("temperature", med > KELVIN_MEDIAN_MIN,
                  f"temperature looks like kelvin although the header says {unit or 'degC'} "
                  "(masked)")
+            if unit not in ("degF", "°F", "fahrenheit", "degree_Fahrenheit"):
+                t_k = np.where(med > KELVIN_MEDIAN_MIN, np.nan, values["temperature"])
+                g = frame.assign(v=t_k, hot=t_k > RANGES["temperature"][1]).groupby("site")
+                n_hot = g["hot"].transform("sum").to_numpy()
+                count = g["v"].transform("count").to_numpy()
+                med_f = g["v"].transform("median").to_numpy()
+                fahrenheit = (((med_f > FAHRENHEIT_MEDIAN_MIN) & (count >= MEDIAN_MIN_HOURS))
+                              | ((n_hot >= RADIATION_SLIP_HOURS)
+                                 & (n_hot >= RADIATION_SLIP_SHARE * count)))
+                mask("temperature", fahrenheit,
+                     f"temperature looks like degF although the header says {unit or 'degC'} "
+                     "(masked)")
+    # wind in km/h under an m/s header: kept, flagged
+    if "wind_speed" in values and \
+            str(raw_units.get("wind_speed", "")).replace(" ", "") in ("m/s", "m/s1", "ms-1", "m*s-1"):
+        g = frame.assign(v=values["wind_speed"]).groupby("site")["v"]
+        med_u = g.transform("median").to_numpy()
+        flag((med_u > KMH_MEDIAN_MIN) & (g.transform("count").to_numpy() >= MEDIAN_MIN_HOURS),
+             f"wind speed median above {KMH_MEDIAN_MIN:g} m/s at this site: km/h under an m/s "
+             "header? (kept)")
     # hard ranges
     for name, (lo, hi) in RANGES.items():
         if name in values:
@@ -302,9 +334,11 @@ def gauge_comparison(met, samples, low=0.5, high=2.0, min_depth_mm=2.0):
     samples : xarray.Dataset
         Precipitation samples (dim ``sample``).
     low, high : float
-        Accepted range of the ratio met / gauge [-] (common practice: a factor of two).
+        Accepted range of the ratio met / gauge [-] (common practice: a factor of two);
+        a ratio on a bound (to the rounding of :data:`workbench.wet.qa.THRESHOLD_RTOL`)
+        is inside.
     min_depth_mm : float
-        Smaller depths are not judged [mm].
+        Smaller depths are not judged [mm]; a depth equal to it (to rounding) is.
 
     Returns
     -------
@@ -327,6 +361,55 @@ def gauge_comparison(met, samples, low=0.5, high=2.0, min_depth_mm=2.0):
     out["met_hours_missing"] = n_hours - n_valid
     with np.errstate(divide="ignore", invalid="ignore"):
         out["ratio"] = out["met_depth"] / out["gauge_depth"]
-    judged = (out["met_hours_missing"] == 0) & (np.maximum(out["gauge_depth"], out["met_depth"]) >= min_depth_mm)
-    out["suspicious"] = judged & ~out["ratio"].between(low, high)
+    from ..wet.qa import at_least, outside_band      # on a bound in the decimals typed:
+    deepest = np.maximum(out["gauge_depth"], out["met_depth"]).to_numpy()   # judged, inside
+    judged = (out["met_hours_missing"] == 0).to_numpy() & at_least(deepest, min_depth_mm)
+    out["suspicious"] = judged & outside_band(out["ratio"].to_numpy(), low, high)
     return out
+
+
+#: Unit factors between two depth records (met / gauge) that a slip makes, with words
+#: (pint's definitions: 1 inch = 25.4 mm, 1 cm = 10 mm).
+DEPTH_SLIPS = ((25.4, "inch and mm"), (10.0, "cm and mm"))
+#: Samples of a site that must be compared before a slip is named, the share of them
+#: that must be far from their gauge, and how near the median ratio must come to a
+#: factor [1] (our choice).
+SLIP_MIN_SAMPLES, SLIP_SHARE, SLIP_RTOL = 8, 0.5, 0.1
+
+
+def gauge_slip_notes(gc, file_name: str) -> list[str]:
+    """A note per site whose samples mostly fail the gauge comparison by a unit factor.
+
+    Parameters
+    ----------
+    gc : pandas.DataFrame
+        :func:`gauge_comparison`'s table.
+    file_name : str
+        The met file's name.
+
+    Returns
+    -------
+    list of str
+        e.g. ``met.csv: precipitation at fell: 40 of 41 samples far from their gauge depth,
+        median met/gauge 0.039, near 1/25.4: inch and mm mixed between the met's
+        precipitation and the gauge depths?``; the values are not changed.
+    """
+    from ..wet.qa import outside_band
+    if gc is None or gc.empty:
+        return []
+    judged = gc[np.isfinite(gc["ratio"]) & (gc["ratio"] > 0) & (gc["met_hours_missing"] == 0)
+                & (np.maximum(gc["gauge_depth"], gc["met_depth"]) >= 2.0)]
+    notes = []
+    for site, g in judged.groupby("site", sort=False):
+        n_bad = int(g["suspicious"].sum())
+        if len(g) < SLIP_MIN_SAMPLES or n_bad <= SLIP_SHARE * len(g):
+            continue
+        med = float(np.median(g["ratio"]))
+        for factor, words in DEPTH_SLIPS:
+            for f, text in ((factor, f"{factor:g}"), (1 / factor, f"1/{factor:g}")):
+                if not outside_band(np.array([med / f]), 1 - SLIP_RTOL, 1 + SLIP_RTOL)[0]:
+                    notes.append(f"{file_name}: precipitation at {site}: {n_bad} of {len(g)} "
+                                 f"samples far from their gauge depth, median met/gauge "
+                                 f"{med:.3g}, near {text}: {words} mixed between the met's "
+                                 f"precipitation and the gauge depths?")
+    return notes

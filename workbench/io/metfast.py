@@ -74,7 +74,8 @@ from .linechunks import (Source, gunzip, header_cells, line_cells, normalise, pa
 from .metrows import Spill
 from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
-from .table import _OFFSET, SAMPLE_MISSING_TEXTS, YEARS, parse_iso
+from .table import (_OFFSET, SAMPLE_MISSING_TEXTS, YEARS, end_of_day, end_of_day_note,
+                    parse_iso)
 
 #: Bytes of text parsed at a time (by each thread; see :func:`workbench.threads.map_ordered`).
 CHUNK_BYTES = 8 << 20
@@ -105,6 +106,7 @@ class _TimeTexts:
         self.value = np.empty(0, dtype="datetime64[ns]")
         self.aware = np.empty(0, bool)
         self.zone = np.empty(0, dtype="timedelta64[ns]")    # the zoned texts' offsets
+        self.end_of_day = False                              # a 24:00 label was read
         self._lock = threading.Lock()
 
     def _lookup(self, cats):
@@ -124,6 +126,7 @@ class _TimeTexts:
                     if np.isnat(tv).any() or ((tv < YEARS[0]) | (tv >= YEARS[1])).any():
                         return None
                     parsed[sel] = tv
+                self.end_of_day = self.end_of_day or bool(end_of_day(text).any())
                 where[new] = len(self.text) + np.arange(int(new.sum()))
                 self.text = self.text.append(pd.Index(text.to_numpy(dtype=object)))
                 self.value = np.concatenate([self.value, parsed])
@@ -250,7 +253,9 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
             got = _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour)
             if got is not None and got is not _REPEAT:
                 got[1].notes[:0] = methours.move_notes(   # as the line reader: first
-                    list(ids), catalogue.utc_offsets(ids), parser.moved)
+                    list(ids), catalogue.utc_offsets(ids), parser.moved, parser.kept)
+                if parser.times.end_of_day:                  # as the line reader: last
+                    got[1].notes.append(end_of_day_note(path.name, [raw_headers["time"]]))
             if got is not _REPEAT:
                 return got
         before = any(k[0] in ("site", "time", "hour") for k in firsts)   # checked first
@@ -282,6 +287,7 @@ class _ChunkParser:
         self.hour, self.label, self.convert, self.variables = hour, label, convert, variables
         self.times = _TimeTexts()
         self.moved = set()        # (site, clock offset [min], zoned) of rows moved
+        self.kept = set()         # the same of fractional-clock rows on the UTC hour
         self._moved_lock = threading.Lock()
 
     def __call__(self, chunk):
@@ -339,8 +345,11 @@ class _ChunkParser:
             return self._locate(chunk)
         if t is not measured:
             pairs = methours.moved_pairs(site_idx, clock, zoned, t != measured)
+            kept = methours.moved_pairs(site_idx, clock, zoned,
+                                        methours.kept_on_utc(measured, clock))
             with self._moved_lock:
                 self.moved |= pairs
+                self.kept |= kept
         got, words = {}, False
         for name in self.used[2:]:
             v = df[name].to_numpy(dtype=float)

@@ -7,8 +7,9 @@ holds for a zoned label whose offset is fractional (``10:00+09:30``).  Such a la
 on the whole hour of its own clock, is moved to the nearest whole UTC hour end, a tie
 (exactly half past) to the later hour: +5.75 h 15 min earlier, +9.5 h and -3.5 h
 30 min later.  A label already on the whole UTC hour (10:30 at +9.5 h) stays as it
-is; one on neither (10:20 at a whole-hour site, 10:15 at +9.5 h) stays an error.
-Every such site gets one ledger note (:func:`move_notes`).  All three CSV paths
+is (it marks a UTC hour end exactly), with a note of its own; one on neither (10:20 at a
+whole-hour site, 10:15 at +9.5 h) stays an error.  Every such site gets one ledger note
+(:func:`move_notes`), for moved labels and for those kept.  All three CSV paths
 (:func:`workbench.io.met.read_met`, :mod:`.metfast`, :mod:`.metlocate`) use these
 functions, so they move, refuse and note alike.  Why the later hour on a tie:
 docs/data_formats.md, section 4.
@@ -91,6 +92,27 @@ def to_hour_ends(t, clock_off):
     return moved, off_hour
 
 
+def kept_on_utc(measured, clock_off) -> np.ndarray:
+    """Labels of a fractional clock that lie on the whole UTC hour (10:30 at +9.5 h):
+    read as they are, not moved (:func:`to_hour_ends`), and named in a note.
+
+    Parameters
+    ----------
+    measured : numpy.ndarray of datetime64[ns]
+        Hour end of each row as read [UTC].
+    clock_off : numpy.ndarray of timedelta64[ns]
+        The offset of each label's clock (:func:`clock_offsets`).
+
+    Returns
+    -------
+    numpy.ndarray of bool
+    """
+    measured = np.asarray(measured, dtype="datetime64[ns]")
+    frac = (np.asarray(clock_off, "timedelta64[ns]") % np.timedelta64(1, "h")) != \
+        np.timedelta64(0, "ns")
+    return frac & (measured == floor_hour(measured))
+
+
 def shift_minutes(clock_off) -> np.ndarray:
     """Minutes [int] each on-hour label of a clock is moved (later positive)."""
     past = (-np.asarray(clock_off, "timedelta64[ns]")) % np.timedelta64(1, "h")
@@ -107,7 +129,7 @@ def _moved_text(shift: int) -> str:
     return f"{abs(shift)} min {'later' if shift > 0 else 'earlier'}"
 
 
-def move_notes(site_ids, site_off_h, pairs) -> list[str]:
+def move_notes(site_ids, site_off_h, pairs, kept=()) -> list[str]:
     """One ledger note per site whose hours were moved.
 
     Parameters
@@ -119,19 +141,24 @@ def move_notes(site_ids, site_off_h, pairs) -> list[str]:
     pairs : iterable of (int, int, bool)
         (catalogue position, clock offset [min], zoned) of the moved labels (repeats
         allowed).
+    kept : iterable of (int, int, bool)
+        The same of labels of a fractional clock already on the whole UTC hour, read as
+        they are (:func:`kept_on_utc`).
 
     Returns
     -------
     list of str
     """
-    by_site = {}
+    by_site, by_kept = {}, {}
     for s, off_min, zoned in set(pairs):
         by_site.setdefault(int(s), set()).add((bool(zoned), int(off_min)))
+    for s, off_min, zoned in set(kept):
+        by_kept.setdefault(int(s), set()).add((bool(zoned), int(off_min)))
     notes = []
-    for s in sorted(by_site):
+    for s in sorted(set(by_site) | set(by_kept)):
         sid = site_ids[s]
         parts = []
-        for zoned, off_min in sorted(by_site[s], key=lambda p: (p[0], -p[1])):
+        for zoned, off_min in sorted(by_site.get(s, ()), key=lambda p: (p[0], -p[1])):
             shift = int(shift_minutes(np.array([off_min], "timedelta64[m]"))[0])
             past = (-off_min) % 60
             where = ("on the half UTC hour" if past == 30
@@ -141,6 +168,13 @@ def move_notes(site_ids, site_off_h, pairs) -> list[str]:
             parts.append(f"{who} {where}; each hour moved {_moved_text(shift)} to the "
                          f"nearest UTC hour end (the sun and the sample periods see the hour "
                          f"{_moved_text(shift)} than it was measured)")
+        for zoned, off_min in sorted(by_kept.get(s, ()), key=lambda p: (p[0], -p[1])):
+            who = (f"labels at {_zone_text(off_min)}" if zoned else
+                   f"labels at utc_offset_h {float(site_off_h[s]):g}")
+            parts.append(f"{who} already on the whole UTC hour (minute {off_min % 60:02d} "
+                         f"of their clock) read as UTC hour ends, not moved")
+        if s in by_site and s in by_kept:
+            parts.append("the site mixes both kinds of label: check its logger's clock")
         notes.append(f"met {sid}: " + "; ".join(parts))
     return notes
 

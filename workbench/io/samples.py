@@ -21,6 +21,8 @@ from . import plausible as _plausible
 from .common import (check_intervals, check_overlaps, check_sites, check_time_zones,
                      duplicate_rows, join_reasons, unit_error)
 from .ledger import Ledger
+from .samplerids import check_spellings, typo_notes
+from .shifted import check_shifted
 from .table import RawTable
 
 PRECIP_REQUIRED = ("site", "start", "end", "gauge_depth")
@@ -58,12 +60,16 @@ def _species_columns(tab: RawTable, allowed, what):
     return out
 
 
-def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None):
+def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero_ok=None):
     """Parse species columns into amounts, with censoring. Returns dict of arrays.
 
     A missing-value code typed as a value (``-999``, ``9999``...) is masked and flagged;
     with `groups` (air files: one site-and-sampler label per row) the range and
-    unit-slip checks of :mod:`workbench.io.plausible` run too.
+    unit-slip checks of :mod:`workbench.io.plausible` run too.  A concentration of
+    exactly 0 is never a measurement (every species here is present at some level): it
+    is censored as below detection, as a negative one, with a reason naming it, except
+    on the rows of `zero_ok` (bool [n]: the dry weeks of a precipitation file, and rows
+    dropped as exact repeats).
     """
     data = {}
     for sp, name in cols.items():
@@ -89,11 +95,16 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None):
             ledger_parts.append(why)
         amount = np.where(masked, np.nan, amount)
         neg = (~cens) & (amount < 0)
-        value = np.where(cens | neg, np.nan, amount)
+        zero = (~cens) & (amount == 0)
+        if zero_ok is not None:
+            zero &= ~zero_ok
+        value = np.where(cens | neg | zero, np.nan, amount)
         dl = np.where(cens, amount, np.nan)
-        data[sp] = (value, cens | neg, dl, kind)
+        data[sp] = (value, cens | neg | zero, dl, kind)
         ledger_parts.append(np.where(cens, f"{sp} below detection", ""))
         ledger_parts.append(np.where(neg, f"{sp} negative (censored)", ""))
+        ledger_parts.append(np.where(zero, f"{sp} reported as 0 (censored as below detection:"
+                                     f" write '<limit', or leave empty if not measured)", ""))
     return data
 
 
@@ -235,6 +246,7 @@ def read_precipitation(path, catalogue, flag_map=None):
     repeat, repeat_why, repeat_note = duplicate_rows(tab, sites, samplers, start, end,
                                                      "sample")
     check_time_zones(tab, sites, mask=~repeat)
+    check_spellings(tab, sites, samplers, start, end, rows=~repeat)
     check_overlaps(tab, sites, samplers, start, end, mask=~repeat)
     parts = [repeat_why]
 
@@ -310,7 +322,10 @@ def read_precipitation(path, catalogue, flag_map=None):
     flag_norm, flag_note = _flag_words(tab, flag_text, flag_map)
     parts.append(np.where(flag_norm != "", "flags " + flag_norm.astype(str), ""))
     ion_cols = _species_columns(tab, _species.PRECIP_IONS, "precipitation")
-    conc = _concentrations(tab, ion_cols, ("amount_density",), parts, n)
+    conc = _concentrations(tab, ion_cols, ("amount_density",), parts, n,
+                           zero_ok=(gauge == 0) | repeat)      # a dry week, a dropped repeat
+    check_shifted(tab, {ion_cols[sp]: ~np.isnan(v) | c for sp, (v, c, _, _) in conc.items()},
+                  rows=~repeat)
     parts.append(np.where(np.isnan(gauge), "gauge depth missing", ""))
     known = set(PRECIP_REQUIRED + PRECIP_OPTIONAL) | set(ion_cols.values())
     unknown = tab.unknown_columns(known)
@@ -329,6 +344,8 @@ def read_precipitation(path, catalogue, flag_map=None):
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
+    if tab.end_of_day_note():
+        ledger.notes.append(tab.end_of_day_note())
     if flag_note:
         ledger.notes.append(f"{tab.path.name}: {flag_note}")
     keep = ~empty
@@ -355,6 +372,7 @@ def read_precipitation(path, catalogue, flag_map=None):
         dvars[f"{sp}_detection_limit"] = ("sample", dl[keep], {"units": "mol m-3"})
     ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path)})
     ledger.notes.extend(_unit_slips(tab, ds, ion_cols))
+    ledger.notes.extend(typo_notes(tab.path.name, sites[keep], samplers[keep], tab.lines[keep]))
     return ds, ledger
 
 
@@ -436,7 +454,8 @@ def read_air(path, catalogue, reference_state=None):
                              expected="an air concentration unit such as ug/m3 or ppb")
     parts = [repeat_why]
     groups = np.char.add(np.char.add(sites.astype(str), "\x1f"), samplers.astype(str))
-    conc = _concentrations(tab, cols, ("amount_density", "mixing_ratio"), parts, n, groups)
+    conc = _concentrations(tab, cols, ("amount_density", "mixing_ratio"), parts, n, groups,
+                           zero_ok=repeat)                     # a dropped repeat
     ref_text = tab.meta.get("reference_state", reference_state)
     needs_ref = any(k == "amount_density" for *_, k in conc.values())
     ref = None
@@ -461,6 +480,7 @@ def read_air(path, catalogue, reference_state=None):
                 methods[sp] = tab.text(name)
         if sp not in methods and method_all is not None:
             methods[sp] = method_all
+    check_spellings(tab, sites, samplers, start, end, rows=~repeat)
     for sp in cols:
         v, c, _, _ = conc[sp]
         check_overlaps(tab, sites, samplers, start, end, mask=(~np.isnan(v) | c) & ~repeat,
@@ -482,6 +502,8 @@ def read_air(path, catalogue, reference_state=None):
         ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
+    if tab.end_of_day_note():
+        ledger.notes.append(tab.end_of_day_note())
     keep = ~empty
     dvars = {
         "site": ("period", sites[keep].astype(str)),
@@ -508,6 +530,7 @@ def read_air(path, catalogue, reference_state=None):
     ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path),
                                   "reference_state": str(ref_text) if needs_ref else "none needed"})
     ledger.notes.extend(_air_slips(tab, ds, cols))
+    ledger.notes.extend(typo_notes(tab.path.name, sites[keep], samplers[keep], tab.lines[keep]))
     return ds, ledger
 
 

@@ -29,9 +29,10 @@ YEARS = (np.datetime64("1900-01-01", "ns"), np.datetime64("2100-01-01", "ns"))
 MISSING_TEXTS = ("", "NA", "NaN", "nan")
 #: Cell texts read as a missing number in the sample and air files, compared after
 #: stripping and lower-casing ("NA", "N/A", "NaN", "-" as spreadsheets and lab systems
-#: write them; common practice).  Each non-empty one is counted in the ledger notes
+#: write them; common practice; ``#N/A`` is a spreadsheet's own "not available").  Each
+#: non-empty one is counted in the ledger notes
 #: (:meth:`RawTable.missing_note`), so none is lost silently.
-SAMPLE_MISSING_TEXTS = ("", "na", "n/a", "nan", "-", "--")
+SAMPLE_MISSING_TEXTS = ("", "na", "n/a", "nan", "-", "--", "#n/a")
 #: Texts that mean "below detection" written as words: an error with the ``<limit`` hint
 #: (turning them into a missing value would drop a measured absence; common practice).
 _NOT_DETECTED = ("nd", "n.d.", "bdl", "<dl", "<lod", "lod", "dl", "not detected", "trace", "tr")
@@ -40,6 +41,49 @@ _NOT_DETECTED = ("nd", "n.d.", "bdl", "<dl", "<lod", "lod", "dl", "not detected"
 #: end in a line break); a pass over every cell of a large file costs a good part of
 #: reading it, one search of the text a fraction of that.
 _BLANK = re.compile(r"[^\S\n]")
+#: Error values of a spreadsheet formula (a cell the sheet failed to compute): an error
+#: with the hint to fix the formula, not a missing value (``#N/A`` is missing, above).
+FORMULA_ERRORS = ("#div/0!", "#value!", "#ref!", "#num!", "#name?", "#null!", "#calc!",
+                  "#spill!", "#getting_data", "#error!", "err:502", "err:503", "err:504")
+#: A number followed by a unit in one cell (``12 mm``, ``3.1ug/m3``, ``5 %``).
+_NUMBER_UNIT = re.compile(r"[-+<]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?\s*"
+                          r"[A-Za-z%\u00b5\u00b0][\w/%\u00b5\u00b0.\-]*")
+#: Numbers with grouped thousands: ``1,234.5``, ``1 234.5``, ``1.234,5``, ``1'234``.
+_THOUSANDS = re.compile(r"[-+]?\d{1,3}(?:(?:,\d{3})+(?:\.\d+)?|(?:[ '\u00a0\u202f]\d{3})+"
+                        r"(?:[.,]\d+)?|(?:\.\d{3})+,\d+)")
+
+
+def number_hint(cell: str, censoring: bool = False) -> str:
+    """The hint of a cell that is no number (" (...)"), or "" (common slips of sheets).
+
+    >>> number_hint("1,234.5")
+    " (a thousands separator? write the number without it, e.g. '1234.5')"
+    >>> number_hint("12 mm")[:30]
+    ' (a unit in the cell? the unit'
+    """
+    low = cell.lower()
+    if low in _NOT_DETECTED:
+        return (" (a 'not detected' code? write '<limit', e.g. '<0.02')" if censoring
+                else " (a 'not detected' code? this column takes numbers only: leave the "
+                "cell empty)")
+    if low in FORMULA_ERRORS:
+        return (" (a spreadsheet formula error: correct the formula in the sheet, or leave "
+                "the cell empty if there is no value)")
+    if re.fullmatch(r"[-+<]?\d{1,3},\d{3}", cell):
+        return (" (a decimal comma or a thousands separator? write a decimal point and no "
+                "separator, e.g. '1.234' or '1234')")
+    if re.fullmatch(r"[-+<]?\d+,\d+", cell):
+        return " (a decimal comma? write a decimal point, e.g. '1.5')"
+    if _THOUSANDS.fullmatch(cell):
+        k = max(cell.rfind(","), cell.rfind("."))       # the decimal mark, if any
+        decimal = k > 0 and ("," in cell and "." in cell or len(cell) - k - 1 != 3)
+        whole, frac = (cell[:k], cell[k + 1:]) if decimal else (cell, "")
+        plain = re.sub(r"[ ',.\u00a0\u202f]", "", whole) + ("." + frac if frac else "")
+        return f" (a thousands separator? write the number without it, e.g. '{plain}')"
+    if _NUMBER_UNIT.fullmatch(cell):
+        return (" (a unit in the cell? the unit goes in the column header, 'name [unit]': "
+                "write the number only)")
+    return ""
 
 
 def _open_text(path: Path) -> str:
@@ -62,6 +106,10 @@ def _open_text(path: Path) -> str:
     if raw[:4] in (b"PK\x03\x04", b"\xd0\xcf\x11\xe0"):
         raise InputError("a spreadsheet workbook, not a CSV text file", file=path,
                          expected="the sheet exported as CSV (UTF-8, comma-separated)")
+    if raw[:2] in (b"\xff\xfe", b"\xfe\xff"):
+        raise InputError("a UTF-16 text file (a spreadsheet's 'Unicode text' export?)",
+                         file=path, line=1, expected="a UTF-8 CSV file, comma-separated "
+                         "(save as 'CSV UTF-8')")
     try:
         return raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
@@ -72,16 +120,48 @@ def _open_text(path: Path) -> str:
                          expected="a UTF-8 CSV file (Latin-1 or Windows-1252? save as UTF-8)") from None
 
 
+#: The end of a day written as 24:00 (ISO 8601:2004, 4.2.3; from memory), with or without
+#: seconds and a zone: read as 00:00 of the next day, with a note.
+_END_OF_DAY = re.compile(r"\d{4}-\d\d-\d\d[T ]24:00(?::00(?:\.0+)?)?(?:Z|[+-]\d\d(?::?\d\d)?)?")
+
+
+def end_of_day(text: pd.Series) -> np.ndarray:
+    """True for the texts that label a day's end as 24:00 [bool].
+
+    >>> end_of_day(pd.Series(["2021-04-03T24:00", "2021-04-03 24:00+01:00", "24:00",
+    ...                       "2021-04-03T23:00", "2021-04-03T24:30"])).tolist()
+    [True, True, False, False, False]
+    """
+    return text.astype(str).str.fullmatch(_END_OF_DAY).to_numpy(dtype=bool)
+
+
 def parse_iso(text: pd.Series, utc: bool) -> np.ndarray:
     """ISO 8601 time texts as datetime64[ns]; NaT where a text is no time.
 
     `utc`: the texts carry an offset (converted to UTC, the zone dropped); else they are
-    naive and returned as written (local standard time, shifted by the caller).
+    naive and returned as written (local standard time, shifted by the caller).  A day's
+    end written 24:00 is 00:00 of the next day (:func:`end_of_day`).
     """
+    eod = end_of_day(text)
+    if eod.any():
+        text = text.copy()
+        text[eod] = text[eod].str.replace("24:00", "00:00", n=1, regex=False)
     t = pd.to_datetime(text, format="ISO8601", utc=utc, errors="coerce")
     if utc:
         t = t.dt.tz_localize(None)
-    return t.to_numpy().astype("datetime64[ns]")
+    out = t.to_numpy().astype("datetime64[ns]")
+    if eod.any():
+        out[eod] = out[eod] + np.timedelta64(1, "D")
+    return out
+
+
+def end_of_day_note(file_name: str, columns) -> str:
+    """The ledger note of the columns whose 24:00 labels were read as the next day's 00:00
+    ("" for none)."""
+    if not columns:
+        return ""
+    return (f"{file_name}: labels at 24:00 (end of day) in "
+            f"{', '.join(repr(c) for c in columns)} read as 00:00 of the next day")
 
 
 @dataclass
@@ -113,6 +193,8 @@ class RawTable:
     missing_seen: dict = field(default_factory=dict)
     #: column name -> bool array: the timestamp carries a zone (``Z`` or an offset).
     zoned: dict = field(default_factory=dict)
+    #: Time columns with a 24:00 label (read as 00:00 of the next day), in order.
+    end_of_day: list = field(default_factory=list)
 
     # ------------------------------------------------------------------ reading
     @classmethod
@@ -274,14 +356,8 @@ class RawTable:
             bad = ~is_missing
             if bad.any():
                 i = int(odd[np.flatnonzero(bad)[0]])
-                what = "text in a numeric column"
-                cell = str(s.iloc[i]).strip()
-                if cell.lower() in _NOT_DETECTED:
-                    what += (" (a 'not detected' code? write '<limit', e.g. '<0.02')" if censoring
-                             else " (a 'not detected' code? this column takes numbers only: "
-                             "leave the cell empty)")
-                elif re.fullmatch(r"[-+<]?\d+,\d+", cell):
-                    what += " (a decimal comma? write a decimal point, e.g. '1.5')"
+                what = "text in a numeric column" + number_hint(str(s.iloc[i]).strip(),
+                                                                censoring)
                 allowed = ("or empty, NA, N/A, NaN or - for missing" if missing == "samples"
                            else "or empty for missing")
                 raise self.error(what, row=i, column=name, value=s.iloc[i],
@@ -313,6 +389,8 @@ class RawTable:
                              expected="an ISO 8601 timestamp such as 2020-01-09T14:00")
         aware = s.str.contains(_OFFSET).to_numpy()
         self.zoned[name] = aware
+        if end_of_day(s).any() and name not in self.end_of_day:
+            self.end_of_day.append(name)
         out = np.empty(len(s), dtype="datetime64[ns]")
         if aware.any():
             tv = parse_iso(s[aware], utc=True)
@@ -340,8 +418,9 @@ class RawTable:
             hint = ""
             if re.fullmatch(r"\d{5}(\.\d*)?", str(s.loc[idx])):
                 hint = " (an Excel date serial number? format the column as a date first)"
-            elif re.search(r"[T ]24:00", str(s.loc[idx])):
-                hint = " (24:00? write 00:00 of the next day)"
+            elif re.search(r"[T ](?:2[4-9]|[3-9]\d):\d\d", str(s.loc[idx])):
+                hint = (" (an hour of 24 or more? hours run 00-23; only 24:00 may end a "
+                        "day)")
             elif re.match(r"\d{1,2}[./]\d{1,2}[./]\d{2,4}", str(s.loc[idx])):
                 hint = (" (a date in day/month or month/day order? write year-month-day, "
                         "e.g. 2020-01-09T14:00)")
@@ -363,6 +442,11 @@ class RawTable:
         if not parts:
             return ""
         return f"{self.path.name}: cells read as missing (as empty cells): " + "; ".join(parts)
+
+    def end_of_day_note(self) -> str:
+        """The ledger note of 24:00 labels read as the next day's 00:00 ("" for none)."""
+        return end_of_day_note(self.path.name, [self.raw_headers.get(c, c)
+                                                for c in self.end_of_day])
 
     def unknown_columns(self, known) -> list[str]:
         return [self.raw_headers[n] for n in self.headers if n not in known]

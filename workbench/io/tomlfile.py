@@ -39,6 +39,9 @@ def read_toml(path, error=InputError, missing="file not found", expected="an exi
     except PermissionError:
         raise error("file cannot be read (permission denied)", file=path,
                     expected="a readable file") from None
+    if raw[:2] in (b"\xff\xfe", b"\xfe\xff"):
+        raise error("a UTF-16 text file", file=path, line=1,
+                    expected="a file saved as UTF-8")
     try:
         text = raw.decode("utf-8-sig")          # a byte-order mark is simply accepted
     except UnicodeDecodeError as exc:

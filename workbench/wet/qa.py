@@ -96,6 +96,20 @@ def at_most(value, threshold):
         return value <= threshold + _slack(threshold)
 
 
+def outside_band(value, low, high):
+    """True where `value` lies below `low` or above `high` by more than rounding [bool].
+
+    A value on a bound in the decimals typed is inside the band (the gauge comparison's
+    factor of two: met 2.0 mm of gauge 1.0 mm passes, although summed hours may give
+    2.0000000000000004); NaN gives False.
+
+    >>> outside_band(np.array([2.0000000000000004, 0.49999999999999994, 2.01, 0.49]),
+    ...              0.5, 2.0).tolist()
+    [False, False, True, True]
+    """
+    return falls_short(value, low) | exceeds(value, high)
+
+
 def _is_xr(*args) -> bool:
     return any(isinstance(a, (xr.DataArray, xr.Dataset)) for a in args)
 

@@ -34,7 +34,7 @@ SHARE = 0.5
 #: Units of a concentration column that are tried in place of the header's.
 CONCENTRATION_UNITS = ("mg/L", "umol/L", "ueq/L")
 #: Units of a depth column that are tried in place of the header's.
-DEPTH_UNITS = ("mm", "cm")
+DEPTH_UNITS = ("mm", "cm", "inch")     # inch: a gauge read in inches (additive, io slips)
 
 
 def _factor(unit: str, other: str, species: str | None, basis=None) -> float:
