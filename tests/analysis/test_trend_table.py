@@ -79,3 +79,15 @@ def test_trends_csv_in_run_folder(analysis_run):
     assert set(t["series"]) == {"annual", "monthly"}
     assert not t["valid"].any()                  # two years of the demo copy: too few
     assert set(t["test"]) == {"mann_kendall", "seasonal_kendall_hirsch_slack"}
+
+
+def test_trend_spec_legend_without_a_test_says_so():
+    """All values equal: no test (p NaN, analysis.trends); the legend says "no test", not
+    "p = nan"."""
+    years = np.arange(2010, 2020)
+    x = np.full(years.size, 5.0)
+    row = {"sen_slope_per_yr": 0.0, "intercept": 5.0, "p_value": np.nan, "valid": False,
+           "note": "all values equal: no test"}
+    spec = trend_spec(years, x, row, np.array(["complete"] * years.size), "alpha", "kg/ha/yr")
+    line = next(d for d in spec["data"] if d["name"].startswith("Sen slope"))
+    assert "(no test)" in line["name"] and "nan" not in line["name"]

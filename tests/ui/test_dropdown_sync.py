@@ -74,3 +74,22 @@ def test_critical_loads_warns_of_a_partial_total(clf):
     assert "Read with care" in clf.text_w.value
     clf.site_w.value = "ridge"
     assert "N total partial" not in clf.status_note
+
+
+def test_critical_loads_exceedance_on_a_partial_total_is_bounded(clf):
+    """The explorer follows the rule of exceedance.csv (analysis.exceedance.not_determined):
+    on mere's partial N total an exceedance of 0 is not determined and a positive one is
+    a lower bound; ridge's complete totals give plain figures."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        clf.site_w.value = "mere"
+    words = clf.exceedance_words
+    assert "(partial: a lower bound)" in clf.text_w.value
+    for part in words.split("; "):
+        assert "not determined (0 on a partial deposition" in part or " at least " in f" {part}", part
+    assert " 0 eq/ha/yr" not in words
+    assert "cuts needed may be larger" in clf.statement
+    clf.site_w.value = "ridge"
+    assert "at least" not in clf.exceedance_words
+    assert "lower bound" not in clf.text_w.value
+    assert "may be larger" not in clf.statement

@@ -307,6 +307,31 @@ def _lower_bound(totals: pd.DataFrame) -> np.ndarray:
     return out
 
 
+def not_determined(exceedance, lower_bound):
+    """Where an exceedance of 0 rests on a partial deposition.
+
+    A partial total leaves out components without data, so it is a lower bound of the
+    deposition: an exceedance of 0 on it says nothing (the full deposition may exceed),
+    while a positive one is a lower bound of the exceedance.
+
+    Parameters
+    ----------
+    exceedance : array_like
+        Exceedances [eq ha-1 yr-1].
+    lower_bound : array_like of bool
+        Whether the deposition behind each exceedance is a lower bound.
+
+    Returns
+    -------
+    ndarray of bool
+        True where the exceedance is 0 on a lower bound: not determined.
+
+    >>> not_determined([0.0, 12.0, 0.0], [True, True, False]).tolist()
+    [True, False, False]
+    """
+    return np.asarray(lower_bound, bool) & (np.asarray(exceedance, float) == 0)
+
+
 def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss") -> pd.DataFrame:
     """The rows of ``exceedance.csv`` from annual S and N totals and the critical loads.
 
@@ -354,8 +379,8 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
     nut = nutrient_n_exceedance(np.where(n_dep < 0, np.nan, n_dep),
                                 t[NUTRIENT_KEY].to_numpy(float))
     lower = _lower_bound(t)
-    acid_undetermined = lower & (ex.exceedance == 0)
-    nut_undetermined = lower & (nut == 0)
+    acid_undetermined = not_determined(ex.exceedance, lower)
+    nut_undetermined = not_determined(nut, lower)
     t["ex_acidity_eq_ha_yr"] = np.where(acid_undetermined, np.nan, ex.exceedance)
     t["region"] = np.where(acid_undetermined, -1, ex.region).astype(np.int8)
     t["ex_nutrient_n_eq_ha_yr"] = np.where(nut_undetermined, np.nan, nut)

@@ -8,7 +8,8 @@ import html
 import ipywidgets as widgets
 import numpy as np
 
-from ..analysis.exceedance import REGIONS, acidity_exceedance, nutrient_n_exceedance
+from ..analysis.exceedance import (REGIONS, acidity_exceedance, not_determined,
+                                   nutrient_n_exceedance)
 from ..analysis.trends import MIN_YEARS
 from ..analysis.whatif import GROUP_TEXT, GROUPS, MODES, group_deposition, path_table, plain_statement
 from .controls import Progress, caution_box, figure_widget, open_with_progress, refresh, table_html
@@ -186,18 +187,53 @@ class CriticalLoadsExplorer(widgets.VBox):
         self.statement = (plain_statement(parts, cuts, {"cl_nut_n": np.nan, **loads}, mode, where)
                           + self.range_text)
         self.status_note = status_note(self.result.years, *sel.values())
+        lower = lower_bound(self.result.years, *sel.values())
+        if lower:
+            self.statement += (" The deposition is partial (a lower bound), so the cuts "
+                               "needed may be larger.")
+        self.exceedance_words = (
+            "acidity exceedance " + exceedance_words(float(ex.exceedance), lower,
+                                                     REGIONS[int(ex.region)])
+            + "; nutrient-N exceedance " + exceedance_words(float(nut), lower))
         self.text_w.value = (
             (f"<p style='color:#D55E00'>{html.escape(self.status_note)}</p>"
              if self.status_note else "") +
             f"<p>Deposition S {first['s_dep_eq_ha_yr']:.0f}, N {first['n_dep_eq_ha_yr']:.0f} "
-            f"eq/ha/yr: acidity exceedance {float(ex.exceedance):.0f} eq/ha/yr "
-            f"({html.escape(REGIONS[int(ex.region)])}); nutrient-N exceedance "
-            f"{float(nut):.0f} eq/ha/yr.</p>"
+            f"eq/ha/yr{' (partial: a lower bound)' if lower else ''}: "
+            f"{html.escape(self.exceedance_words)}.</p>"
             f"<p><b>{html.escape(self.statement)}</b></p>")
         refresh(self.fig, clf_spec(loads, first["s_dep_eq_ha_yr"], first["n_dep_eq_ha_yr"],
                                    self.path, where, MODES[mode], ranges=row))
         self.table_w.value = table_html(self.path[list(PATH_COLUMNS)])
         return self.statement
+
+
+def lower_bound(years_ds, site, receptor, period) -> bool:
+    """Whether the S or N total of the period lacks a component (status ``partial`` or
+    components named missing): the deposition, and so its exceedance, is a lower bound
+    (the rule of ``exceedance.csv``, :func:`workbench.analysis.exceedance.not_determined`)."""
+    t = total_rates(years_ds, site, receptor, [str(period)])
+    t = t[t["pathway"] == "total"]
+    return bool((t["status"].eq("partial") | t["missing"].str.strip().ne("")).any())
+
+
+def exceedance_words(value, lower, region="") -> str:
+    """An exceedance [eq ha-1 yr-1] in words: ``not determined`` where it is 0 on a
+    partial deposition, ``at least`` where it is positive on one.
+
+    >>> exceedance_words(0.0, True)
+    'not determined (0 on a partial deposition, which is a lower bound)'
+    >>> exceedance_words(12.4, True, "reduce S only")
+    'at least 12 eq/ha/yr (reduce S only)'
+    >>> exceedance_words(0.0, False, "not exceeded")
+    '0 eq/ha/yr (not exceeded)'
+    """
+    if not np.isfinite(value):
+        return "not determined"
+    if not_determined(value, lower):
+        return "not determined (0 on a partial deposition, which is a lower bound)"
+    text = f"{'at least ' if lower and value > 0 else ''}{value:.0f} eq/ha/yr"
+    return text + (f" ({region})" if region else "")
 
 
 def status_note(years_ds, site, receptor, period) -> str:

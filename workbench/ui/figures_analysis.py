@@ -180,7 +180,8 @@ def trend_spec(years, values, row=None, status=None, title="", unit="kg/ha/yr") 
         valid = "" if row.get("valid", True) else " — not valid: " + str(row.get("note", ""))
         data.append({"type": "scatter", "x": list(ends), "y": list(icpt + slope * ends),
                      "mode": "lines", "line": {"color": OKABE_ITO["vermillion"], "width": 2},
-                     "name": f"Sen slope {slope:.3g} {unit} per yr (p = {p:.2g}){valid}"})
+                     "name": f"Sen slope {slope:.3g} {unit} per yr "
+                             f"({f'p = {p:.2g}' if np.isfinite(p) else 'no test'}){valid}"})
     layout = {"title": {"text": title or "Trend over the years"},
               "xaxis": {"title": {"text": "year"}, "dtick": 1},
               "yaxis": {"title": {"text": unit}}, "height": HEIGHT,
