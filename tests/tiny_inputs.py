@@ -4,7 +4,12 @@ import pandas as pd
 
 from workbench.io.metchecks import solar_elevation_deg
 
-SITES = """\
+
+
+def alpha_site(receptor="conifer_forest") -> str:
+    """The [[site]] table of the invented grass site "alpha" (12 lines, ending with its
+    receptors), without critical loads."""
+    return f"""\
 [[site]]
 id = "alpha"
 name = "Alpha Test Field"
@@ -16,8 +21,24 @@ canopy_height_m = 0.1
 wind_height_m = 10.0
 sampler_height_m = 3.0
 utc_offset_h = 1
-receptors = ["conifer_forest"]
+receptors = ["{receptor}"]
+"""
 
+
+def located_error(fn, path, cat) -> str:
+    """The message of the InputError that ``fn(path, cat)`` raises; it starts with the
+    file and its line."""
+    import pytest
+
+    from workbench.errors import InputError
+    with pytest.raises(InputError) as exc:
+        fn(path, cat)
+    msg = str(exc.value)
+    assert msg.startswith(f"{path}, line "), msg
+    return msg
+
+
+SITES = alpha_site() + """
 [site.critical_loads]
 cl_max_s = 1200.0
 cl_nut_n = 900.0

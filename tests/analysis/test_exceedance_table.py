@@ -7,6 +7,8 @@ from workbench.analysis.exceedance import EXCEEDANCE_COLUMNS, acidity_exceedance
 from workbench.errors import InputError
 from workbench.io import read_sites
 
+from tiny_inputs import alpha_site
+
 
 def test_exceedance_csv_columns_and_values(analysis_run):
     out, result, study = analysis_run
@@ -48,20 +50,7 @@ def test_receptor_table_takes_precedence(analysis_run):
     assert grass["note"].str.contains("given for conifer_forest").all()
 
 
-SITE = """\
-[[site]]
-id = "alpha"
-name = "Alpha Test Field"
-latitude = 52.0
-longitude = 5.0
-elevation_m = 20.0
-land_use = "grass"
-canopy_height_m = 0.1
-wind_height_m = 10.0
-sampler_height_m = 3.0
-utc_offset_h = 1
-receptors = ["moorland"]
-
+SITE = alpha_site("moorland") + """
 [site.critical_loads]
 cl_max_s = 900.0
 cl_min_n = 300.0

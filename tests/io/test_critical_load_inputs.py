@@ -7,22 +7,9 @@ from workbench.errors import InputError
 from workbench.io import read_sites
 from workbench.io.critical_loads import PLAUSIBLE_EQ_HA_YR, eq_per_kg
 
-SITE = """\
-[[site]]
-id = "alpha"
-name = "Alpha Test Field"
-latitude = 52.0
-longitude = 5.0
-elevation_m = 20.0
-land_use = "grass"
-canopy_height_m = 0.1
-wind_height_m = 10.0
-sampler_height_m = 3.0
-utc_offset_h = 1
-receptors = ["moorland"]
+from tiny_inputs import alpha_site
 
-[site.critical_loads]
-"""
+SITE = alpha_site("moorland") + "\n[site.critical_loads]\n"
 #: line of the first key under [site.critical_loads]
 FIRST = 15
 GOOD = "cl_max_s = 900.0\ncl_min_n = 300.0\ncl_max_n = 1500.0\ncl_nut_n = 700.0\n"

@@ -7,10 +7,9 @@ was expected; each accepted text is counted in the ledger notes.  Invented sites
 import numpy as np
 import pytest
 
-from workbench.errors import InputError
 from workbench.io import read_air, read_precipitation, read_sites
 
-from tiny_inputs import AIR, PRECIP, SITES
+from tiny_inputs import AIR, PRECIP, SITES, located_error
 
 P_LINES = PRECIP.splitlines()
 A_LINES = AIR.splitlines()
@@ -27,12 +26,7 @@ def _write(tmp_path, name, lines):
     return p
 
 
-def _error(fn, path, cat):
-    with pytest.raises(InputError) as exc:
-        fn(path, cat)
-    msg = str(exc.value)
-    assert msg.startswith(f"{path}, line "), msg
-    return msg
+_error = located_error
 
 
 # ------------------------------------------------------------------ time zones

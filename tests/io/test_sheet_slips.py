@@ -13,7 +13,7 @@ from workbench.errors import InputError
 from workbench.io import read_air, read_precipitation, read_sites
 from workbench.io.table import number_hint
 
-from tiny_inputs import AIR, PRECIP, SITES, met_text
+from tiny_inputs import AIR, PRECIP, SITES, met_text, located_error
 
 P_LINES = PRECIP.splitlines()
 
@@ -36,12 +36,7 @@ def _precip_with(tmp_path, column, cell, line=2):
     return p
 
 
-def _error(fn, path, cat):
-    with pytest.raises(InputError) as exc:
-        fn(path, cat)
-    msg = str(exc.value)
-    assert msg.startswith(f"{path}, line "), msg
-    return msg
+_error = located_error
 
 
 @pytest.mark.parametrize("column, cell, hint", [
