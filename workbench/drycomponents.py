@@ -20,8 +20,8 @@ from . import graph as _graph
 from . import species as _species
 from .budget import COMPONENTS, PAIRS, BudgetError, BudgetOptions
 from .budgetstatus import bracket_velocities
-from .dryflux import (_count_cumulative, _inputs_for, deposition_rows, fill_diurnal,
-                      period_axes, period_mean, share_to_periods)
+from .dryflux import (_count_cumulative, _inputs_for, covered_filled_share, deposition_rows,
+                      fill_diurnal, period_axes, period_mean, share_to_periods)
 from .drypairs import apply_split, bracket_variables, combined_notes, split_pairs
 from .periods import hour_bounds
 
@@ -311,8 +311,11 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
                     _, node = one(air, member, vd_sp)
                     out["bracket"][(pair, how)][member] = node.value[0]
                     out["keys"][("bracket", pair, how, member)] = node.key
+    def has_value(sp):        # a value, or a value below detection (enters substituted)
+        cens = air_v[f"{sp}_censored"].values if f"{sp}_censored" in air_v else False
+        return np.isfinite(air_v[sp].values) | cens
     out["measured"] = np.stack(
-        [np.isin(sites, np.unique(air_v["site"].values[np.isfinite(air_v[sp].values)]))
+        [np.isin(sites, np.unique(air_v["site"].values[has_value(sp)]))
          if sp in air_v else np.zeros(len(sites), bool) for sp in species_list], -1)
     # pair_split: the main components of a pair from the bracket's rows (_apply_split)
     out["split"] = split_pairs(options.pair_split, out, air_v, nodes)
@@ -360,8 +363,9 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
     -------
     xarray.Dataset
         Dims (site, receptor, period, species): ``deposition`` [mol m-2] scaled to the
-        whole period, ``coverage`` [1] (site, period, species), ``vd_coverage`` and
-        ``vd_filled_share`` [1], ``flux_coverage`` [1] (hours with a concentration
+        whole period, ``coverage`` [1] (site, period, species), ``vd_coverage`` [1]
+        (share of the period's hours with a modelled Vd), ``vd_filled_share`` [1] (share
+        of the covered hours, those in sampling periods, with a filled Vd), ``flux_coverage`` [1] (hours with a concentration
         and a deposition velocity: 0 where Vd or the air density is missing for every
         hour, and the deposition is then NaN, never 0), ``measured`` (site, species),
         ``mixing_ratio`` (species: given as a mixing ratio), the pair brackets
@@ -401,7 +405,8 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
             conc[..., k] = period_mean(r["site_index"], r["start"], r["end"], r["conc"], n_s, axes)
         c_valid, c_fill = rows["vd_cum"][sp]
         vd_cov[..., k] = (c_valid[:, :, pb] - c_valid[:, :, pa]) / hours_p
-        filled_share[..., k] = (c_fill[:, :, pb] - c_fill[:, :, pa]) / np.maximum(pb - pa, 1)
+        filled_share[..., k] = covered_filled_share(r["site_index"], r["a"], r["b"], c_fill,
+                                                    pa, pb)
     shared = {(pair, how): {m: agg(("bracket", pair, how, m), r) for m, r in members.items()}
               for (pair, how), members in rows["bracket"].items()}
     split = rows.get("split", {})

@@ -205,7 +205,9 @@ def select_samplers(air: xr.Dataset, species: str, preferred_method=None):
     Samplers that follow each other (a replaced instrument) are all used.  Where
     samplers overlap in time, the primary one (the preferred method, else the one
     covering the most hours) is used and the others' rows that overlap it are left
-    out; their rows outside its periods fill its gaps.
+    out; their rows outside its periods fill its gaps, in the same order of rank (a
+    row of a back-up sampler overlapping a kept row of a higher-ranked back-up is left
+    out too, so no hour is counted twice).
 
     Returns
     -------
@@ -230,18 +232,31 @@ def select_samplers(air: xr.Dataset, species: str, preferred_method=None):
         if len(names) <= 1:
             continue
         hours = pd.Series((end - start)[here] / np.timedelta64(1, "h")).groupby(samplers[here]).sum()
-        choice = hours.idxmax()
+        # rank: the preferred method's sampler, then by hours covered (ties by name)
+        rank = sorted((str(n) for n in names), key=lambda n: (-hours[n], n))
         if preferred_method and preferred_method.get(species):
             pref = np.unique(samplers[here & (method == preferred_method[species])])
             if len(pref):
-                choice = pref[0]
-        prim = np.flatnonzero(here & (samplers == choice))
-        order = prim[np.argsort(start[prim])]
-        ps, pe = start[order], end[order]
-        others = np.flatnonzero(here & (samplers != choice))
-        k = np.searchsorted(ps, end[others], side="left") - 1   # last primary starting before end
-        overlap = (k >= 0) & (pe[np.clip(k, 0, None)] > start[others])
-        dropped = others[overlap]
+                rank.remove(str(pref[0]))
+                rank.insert(0, str(pref[0]))
+        choice = rank[0]
+        # each sampler in rank order fills only the hours that no higher-ranked one
+        # covers: a row overlapping a kept row of a higher-ranked sampler is left out,
+        # so that no hour is counted twice (two back-up samplers in one gap of the
+        # primary would otherwise both count, and the coverage pass on double hours)
+        kept = np.flatnonzero(here & (samplers == choice))
+        dropped = []
+        for name in rank[1:]:
+            order = kept[np.argsort(start[kept], kind="stable")]
+            ks, ke = start[order], end[order]
+            mine = np.flatnonzero(here & (samplers == name))
+            k = np.searchsorted(ks, end[mine], side="left") - 1   # last kept row starting before end
+            # kept rows do not overlap each other, so their ends rise with their starts
+            overlap = (k >= 0) & (ke[np.clip(k, 0, None)] > start[mine]) if len(ks) else \
+                np.zeros(len(mine), bool)
+            dropped.append(mine[overlap])
+            kept = np.concatenate([kept, mine[~overlap]])
+        dropped = np.concatenate(dropped) if dropped else np.zeros(0, int)
         used[dropped] = False
         if len(dropped):
             notes.append(f"{species} at {site}: sampler {choice!r} is primary; {len(dropped)} "
@@ -540,6 +555,42 @@ def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
         coords={"site": list(sites), "receptor": rows["receptor"].values,
                 "period": periods["label"].values},
     )
+
+
+def covered_filled_share(site_index, a, b, c_fill, pa, pb):
+    """Share of the covered hours of each reporting period whose Vd was filled.
+
+    The covered hours are those of the period (on the hour axis) inside a sampling
+    period: only they enter the flux, so a fill outside them changes nothing and a fill
+    inside them weighs by the covered hours, not by the period's (docs/budget.md,
+    "Gaps in Vd").
+
+    Parameters
+    ----------
+    site_index, a, b : ndarray of int (n,)
+        Site row and hour bounds of each sampling period (:func:`deposition_rows`).
+    c_fill : ndarray (S, R, T + 1)
+        Cumulative count of filled hours [1].
+    pa, pb : ndarray of int (P,)
+        Hour bounds of the reporting periods.
+
+    Returns
+    -------
+    ndarray (S, R, P)
+        Filled hours / covered hours [1]; NaN where no hour is covered.
+    """
+    n_s, n_r, n_p = c_fill.shape[0], c_fill.shape[1], len(pa)
+    filled = np.zeros((n_s, n_p, n_r))
+    covered = np.zeros((n_s, n_p))
+    if len(a):
+        lo = np.maximum(a[:, None], pa[None, :])          # (row, period)
+        hi = np.maximum(np.minimum(b[:, None], pb[None, :]), lo)
+        part = c_fill[site_index[:, None], :, hi] - c_fill[site_index[:, None], :, lo]
+        np.add.at(filled, site_index, part)
+        np.add.at(covered, site_index, (hi - lo).astype(float))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        share = np.where(covered[:, :, None] > 0, filled / covered[:, :, None], np.nan)
+    return share.transpose(0, 2, 1)
 
 
 def period_mean(site_index, starts, ends, values, n_sites, periods):
