@@ -250,7 +250,8 @@ def test_air_coverage_exactly_at_the_bound_passes_to_rounding():
     """min_air_coverage is inclusive (docs: 'at least').  A 10-week custom period with
     7 weeks covered has coverage 7/10 = 0.7 and passes min_air_coverage = 0.7;
     with 0.71 it is flagged.  A share that the division leaves a rounding below its
-    bound (e.g. 0.3 of 1680 h = 504 h) passes too."""
+    bound passes too (0.3 of 1680 h = 504 h: one correctly rounded division, so
+    equal here; the slack guards sums of fractional hours)."""
     p = make_periods(None, None, "custom", ranges=[("2021-03-01", "2021-05-10", "p")])
     vel = _vd(np.full(1680, 0.01), "2021-03-01T01:00")
     d7 = _dry(_air(_weeks("2021-03-01", 7, 1e-8)), vel, p)
@@ -323,3 +324,20 @@ def test_a_species_without_air_data_is_missing_never_zero():
     assert st == ["missing"] and "not measured" in note[0]
     st, note = _status(d, "NO2")
     assert st == ["missing"]
+
+
+def test_hours_without_vd_on_one_side_of_a_month_end_keep_their_share():
+    """A sample 2021-01-29 to 02-05 (168 h: 72 in January, 96 in February), Vd 0.01 m/s
+    but none (unfillable) on January 29 and 30.  Its deposition is C mean(Vd) 168 h,
+    the missing hours taking the mean of the others; the split must treat them alike:
+    January holds 72/168 of it, February 96/168, each scaled by its covered hours
+    (744/72, 672/96).  Before the fix the split gave the missing hours no Vd, so
+    January got 24/168 and February 144/168 (February +50 % over its share)."""
+    v = np.full(744 + 672, 0.01)
+    v[24 * 28:24 * 30] = np.nan                               # Jan 29 and 30
+    vel = _vd(v, "2021-01-01T01:00")
+    months = make_periods("2021-01-01", "2021-03-01", "month")
+    d = _dry(_air([("a", "2021-01-29", "2021-02-05", 1e-8)]), vel, months)
+    total = 1e-8 * 0.01 * 168 * HOUR
+    np.testing.assert_allclose(_dep(d), [total * 72 / 168 * 744 / 72,
+                                         total * 96 / 168 * 672 / 96], rtol=1e-12)

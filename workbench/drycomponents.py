@@ -342,7 +342,8 @@ def period_shares(o, rows, periods, n_sites, times):
     """One piece of rows shared among reporting periods (:func:`share_to_periods`)."""
     r = rows[0] if isinstance(rows, tuple) else rows
     return share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"], r["cs"],
-                            n_sites, period_axes(periods), times, r["start"], r["end"])
+                            n_sites, period_axes(periods), times, r["start"], r["end"],
+                            cn=r.get("cn"))
 
 
 def dry_components(rows: dict, periods: pd.DataFrame, share=None):
@@ -391,7 +392,7 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         if share is not None:
             return share(name, r)
         return share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"], r["cs"],
-                                n_s, axes, times, r["start"], r["end"])
+                                n_s, axes, times, r["start"], r["end"], cn=r.get("cn"))
 
     for k, sp in enumerate(species_list):
         if sp not in rows["species"]:

@@ -289,7 +289,9 @@ def deposition_rows(conc, quantity, site_index, starts, ends, times, vd, n_air=N
     dict
         ``deposition`` (n, R) [mol m-2], ``mean_eff`` (n, R) [m s-1 or mol m-2 s-1],
         ``n_valid`` (n, R), ``hours`` (n,), ``a``, ``b`` (hour index bounds),
-        ``cs`` (S, R, T + 1) cumulative effective Vd.
+        ``cs`` (S, R, T + 1) cumulative effective Vd, ``cn`` (S, R, T + 1) cumulative
+        count of its finite hours (None when every hour is finite), for
+        :func:`share_to_periods`.
     """
     eff = vd if weight is None else vd * weight
     if quantity == "mixing_ratio":
@@ -302,6 +304,7 @@ def deposition_rows(conc, quantity, site_index, starts, ends, times, vd, n_air=N
     total = cs[site_index, :, b] - cs[site_index, :, a]
     if finite.all():        # every hour counts: the count of [a, b) is b - a
         n_valid = np.repeat((b - a).astype(float)[:, None], eff.shape[1], axis=1)
+        cn = None
     else:
         cn = _count_cumulative(finite)
         n_valid = cn[site_index, :, b] - cn[site_index, :, a]
@@ -310,7 +313,7 @@ def deposition_rows(conc, quantity, site_index, starts, ends, times, vd, n_air=N
         mean_eff = np.where(n_valid > 0, total / n_valid, np.nan)
     dep = conc[:, None] * mean_eff * hours[:, None] * HOUR_S
     return {"deposition": dep, "mean_eff": mean_eff, "n_valid": n_valid, "hours": hours,
-            "a": a, "b": b, "cs": cs, "start": starts, "end": ends}
+            "a": a, "b": b, "cs": cs, "cn": cn, "start": starts, "end": ends}
 
 
 def _inputs_for(air, species, vd: xr.DataArray, met, options):
@@ -416,7 +419,7 @@ def period_axes(periods) -> PeriodAxes:
 
 
 def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
-                     starts=None, ends=None, per_row=False):
+                     starts=None, ends=None, per_row=False, cn=None):
     """Numpy core of :func:`to_periods`.
 
     Parameters
@@ -436,6 +439,12 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
         mean Vd of its hours inside, so that the split among reporting periods and the
         coverage follow the real overlap.
 
+    cn : ndarray (S, R, T + 1), optional
+        Cumulative count of the hours with a finite effective Vd (``deposition_rows``'
+        ``cn``; None: every hour finite).  An hour without Vd inside a sampling period
+        takes the mean Vd of the period's hours with one, in the split as in the
+        period's deposition (D = C mean(Vd) dt), so that a gap on one side of a month
+        end does not move the deposition to the other side.
     per_row : bool
         Also return each sampling period's part of the result (for the Monte Carlo of
         :mod:`workbench.analysis.uncertainty`, which draws errors per sampling period).
@@ -470,6 +479,13 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
         part = cs[site_index[:, None], :, hi] - cs[site_index[:, None], :, lo_c]  # (row, period, R)
         whole = (cs[site_index, :, b] - cs[site_index, :, a])[:, None, :]
         inside = np.maximum(b - a, 0).astype(float)
+        if cn is not None:       # hours without Vd take the row's mean Vd of its valid hours
+            n_part = cn[site_index[:, None], :, hi] - cn[site_index[:, None], :, lo_c]
+            n_whole = (cn[site_index, :, b] - cn[site_index, :, a])[:, None, :]
+            with np.errstate(invalid="ignore", divide="ignore"):
+                mean_v = np.where(n_whole > 0, whole / n_whole, 0.0)        # (row, 1, R)
+            part = part + (ov[:, :, None] - n_part) * mean_v
+            whole = whole + (inside[:, None, None] - n_whole) * mean_v
         if starts is not None:
             hour = np.timedelta64(1, "h")
             ov_real = np.clip((np.minimum(ends[:, None], p_end[None, :])
@@ -505,7 +521,7 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
     return dep_out * scale, coverage, cov_hours, flux_hours
 
 
-def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
+def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times, cn=None):
     """Share period depositions among reporting periods and scale to full coverage.
 
     An air period that straddles a boundary is split by the sum of hourly (effective)
@@ -531,6 +547,10 @@ def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
         Reporting periods (``workbench.periods.make_periods``).
     times : ndarray of datetime64
         Hour axis of `cs`.
+    cn : ndarray, optional
+        Cumulative count of the finite hours of the same Vd (the ``cn`` of
+        :func:`deposition_rows`); None: every hour counts as finite.  See
+        :func:`share_to_periods`.
 
     Returns
     -------
@@ -542,7 +562,7 @@ def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
     si = pd.Index(list(sites)).get_indexer(rows["site"].values.astype(str))
     dep, coverage, cov_hours, _ = share_to_periods(
         si, rows["hour_start"].values, rows["hour_end"].values, rows["deposition"].values,
-        cs, len(sites), periods, times, rows["start"].values, rows["end"].values)
+        cs, len(sites), periods, times, rows["start"].values, rows["end"].values, cn=cn)
     return xr.Dataset(
         {
             "deposition": (("site", "receptor", "period"), dep,
