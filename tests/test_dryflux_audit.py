@@ -341,3 +341,25 @@ def test_hours_without_vd_on_one_side_of_a_month_end_keep_their_share():
     total = 1e-8 * 0.01 * 168 * HOUR
     np.testing.assert_allclose(_dep(d), [total * 72 / 168 * 744 / 72,
                                          total * 96 / 168 * 672 / 96], rtol=1e-12)
+
+
+def test_hours_without_any_vd_inside_sampled_weeks_count_as_not_modelled():
+    """Four weeks of February sampled; in each, the 6 hours 00-05 UTC have no Vd at all
+    (unfillable: the slot has no data in any year), 24 % of the hours behind the flux.
+    Their Vd is the week's mean of the others (D = C mean(Vd) dt), so they are not
+    modelled: share 24/96 = 0.25 > 0.1 -> 'filled', not 'complete' (before the fix the
+    share counted diurnal fills only: 0, complete).  A week with no Vd at all adds no
+    hours behind the flux (its absence is the flux coverage's business)."""
+    feb = make_periods("2021-02-01", "2021-03-01", "month")
+    hour = np.arange(672) % 24                                 # hour ending 01:00 -> 0
+    v = np.where(hour < 6, np.nan, 0.01)
+    d = _dry(_air(_weeks("2021-02-01", 4, 1e-8)), _vd(v, "2021-02-01T01:00"), feb)
+    assert d["vd_filled_share"].values[0, 0, 0, 0] == pytest.approx(6 / 24)
+    assert _dep(d)[0] == pytest.approx(4e-8 * 0.01 * 168 * HOUR, rel=1e-12)
+    assert _status(d)[0] == ["filled"]
+    v = np.full(672, 0.01)
+    v[:168] = np.nan                                           # week 1 without any Vd
+    d = _dry(_air(_weeks("2021-02-01", 4, 1e-8)), _vd(v, "2021-02-01T01:00"), feb)
+    assert d["vd_filled_share"].values[0, 0, 0, 0] == 0.0
+    assert d["flux_coverage"].values[0, 0, 0, 0] == pytest.approx(0.75)
+    assert _status(d)[0] == ["complete"]

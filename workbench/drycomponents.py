@@ -366,7 +366,8 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         Dims (site, receptor, period, species): ``deposition`` [mol m-2] scaled to the
         whole period, ``coverage`` [1] (site, period, species), ``vd_coverage`` [1]
         (share of the period's hours with a modelled Vd), ``vd_filled_share`` [1] (share
-        of the covered hours, those in sampling periods, with a filled Vd), ``flux_coverage`` [1] (hours with a concentration
+        of the hours behind the flux, those in sampling periods with a known flux, whose
+        Vd was filled or, missing, taken as the sampling period's mean), ``flux_coverage`` [1] (hours with a concentration
         and a deposition velocity: 0 where Vd or the air density is missing for every
         hour, and the deposition is then NaN, never 0), ``measured`` (site, species),
         ``mixing_ratio`` (species: given as a mixing ratio), the pair brackets
@@ -407,7 +408,8 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         c_valid, c_fill = rows["vd_cum"][sp]
         vd_cov[..., k] = (c_valid[:, :, pb] - c_valid[:, :, pa]) / hours_p
         filled_share[..., k] = covered_filled_share(r["site_index"], r["a"], r["b"], c_fill,
-                                                    pa, pb)
+                                                    pa, pb, r.get("cn"),
+                                                    np.isfinite(r["deposition"]))
     shared = {(pair, how): {m: agg(("bracket", pair, how, m), r) for m, r in members.items()}
               for (pair, how), members in rows["bracket"].items()}
     split = rows.get("split", {})

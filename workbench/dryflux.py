@@ -577,13 +577,15 @@ def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times, cn=Non
     )
 
 
-def covered_filled_share(site_index, a, b, c_fill, pa, pb):
-    """Share of the covered hours of each reporting period whose Vd was filled.
+def covered_filled_share(site_index, a, b, c_fill, pa, pb, cn=None, known=None):
+    """Share of the hours behind each reporting period's flux whose Vd is not modelled.
 
-    The covered hours are those of the period (on the hour axis) inside a sampling
-    period: only they enter the flux, so a fill outside them changes nothing and a fill
-    inside them weighs by the covered hours, not by the period's (docs/budget.md,
-    "Gaps in Vd").
+    The hours behind the flux are those of the period (on the hour axis) inside a
+    sampling period whose deposition is known: only they enter it.  Of these, an hour
+    counts as not modelled when its Vd was filled from the diurnal cycle or, without
+    any Vd (nor air density, for a mixing ratio), took the sampling period's mean Vd
+    (:func:`deposition_rows`).  A fill outside them changes nothing, and a fill inside
+    them weighs by their number, not by the period's (docs/budget.md, "Gaps in Vd").
 
     Parameters
     ----------
@@ -593,23 +595,34 @@ def covered_filled_share(site_index, a, b, c_fill, pa, pb):
         Cumulative count of filled hours [1].
     pa, pb : ndarray of int (P,)
         Hour bounds of the reporting periods.
+    cn : ndarray (S, R, T + 1), optional
+        Cumulative count of the hours with a finite effective Vd (``deposition_rows``'
+        ``cn``; None: every hour has one).
+    known : ndarray of bool (n, R), optional
+        The sampling period's deposition is known (default: every one).
 
     Returns
     -------
     ndarray (S, R, P)
-        Filled hours / covered hours [1]; NaN where no hour is covered.
+        Not-modelled hours / hours behind the flux [1]; NaN where there are none.
     """
     n_s, n_r, n_p = c_fill.shape[0], c_fill.shape[1], len(pa)
-    filled = np.zeros((n_s, n_p, n_r))
-    covered = np.zeros((n_s, n_p))
+    imputed = np.zeros((n_s, n_p, n_r))
+    behind = np.zeros((n_s, n_p, n_r))
     if len(a):
+        si = site_index[:, None]
         lo = np.maximum(a[:, None], pa[None, :])          # (row, period)
         hi = np.maximum(np.minimum(b[:, None], pb[None, :]), lo)
-        part = c_fill[site_index[:, None], :, hi] - c_fill[site_index[:, None], :, lo]
-        np.add.at(filled, site_index, part)
-        np.add.at(covered, site_index, (hi - lo).astype(float))
+        hours = (hi - lo).astype(float)[:, :, None]       # (row, period, 1)
+        part = c_fill[si, :, hi] - c_fill[si, :, lo]      # (row, period, R)
+        if cn is not None:
+            part = part + hours - (cn[si, :, hi] - cn[si, :, lo])
+        w = (np.ones((len(a), 1, n_r)) if known is None
+             else np.asarray(known, float)[:, None, :])
+        np.add.at(imputed, site_index, part * w)
+        np.add.at(behind, site_index, hours * w)
     with np.errstate(invalid="ignore", divide="ignore"):
-        share = np.where(covered[:, :, None] > 0, filled / covered[:, :, None], np.nan)
+        share = np.where(behind > 0, imputed / behind, np.nan)
     return share.transpose(0, 2, 1)
 
 
