@@ -363,3 +363,27 @@ def test_hours_without_any_vd_inside_sampled_weeks_count_as_not_modelled():
     assert d["vd_filled_share"].values[0, 0, 0, 0] == 0.0
     assert d["flux_coverage"].values[0, 0, 0, 0] == pytest.approx(0.75)
     assert _status(d)[0] == ["complete"]
+
+
+def test_dry_n_total_without_nh3_and_no2_is_partial_and_names_them():
+    """Dry N of HNO3 1, pNO3 2, pNH4 3 mmol/m2 (complete) with NH3 and NO2 missing:
+    the sum of the present ones, 6 mmol/m2, status 'partial', missing 'NH3 NO2'
+    (docs/budget.md, status of a sum); every dry N component missing: NaN, 'missing',
+    never a complete-looking 0."""
+    from workbench.budget import COMPONENTS, _totals
+    el = np.array([c[0] for c in COMPONENTS])
+    pw = np.array([c[1] for c in COMPONENTS])
+    sp = np.array([c[2] for c in COMPONENTS])
+    given = {"HNO3": 1e-3, "pNO3": 2e-3, "pNH4": 3e-3}
+    dep = np.array([given.get(s, np.nan) for s in sp])[None, None, None, :]
+    st = np.array(["complete" if s in given else "missing" for s in sp],
+                  dtype=object)[None, None, None, :]
+    names, out = _totals(dep, st, np.where(np.isfinite(dep), 1.0, np.nan), el, pw, sp)
+    k = names.index("N_dry")
+    assert out["total_deposition"].values[0, 0, 0, k] == pytest.approx(6e-3)
+    assert out["total_status"].values[0, 0, 0, k] == "partial"
+    assert out["total_missing_components"].values[0, 0, 0, k].split() == ["NH3", "NO2"]
+    none = np.full(dep.shape, np.nan)
+    _, out = _totals(none, np.full(dep.shape, "missing", dtype=object), none, el, pw, sp)
+    assert np.isnan(out["total_deposition"].values[0, 0, 0, k])
+    assert out["total_status"].values[0, 0, 0, k] == "missing"
