@@ -577,55 +577,6 @@ def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times, cn=Non
     )
 
 
-def covered_filled_share(site_index, a, b, c_fill, pa, pb, cn=None, known=None):
-    """Share of the hours behind each reporting period's flux whose Vd is not modelled.
-
-    The hours behind the flux are those of the period (on the hour axis) inside a
-    sampling period whose deposition is known: only they enter it.  Of these, an hour
-    counts as not modelled when its Vd was filled from the diurnal cycle or, without
-    any Vd (nor air density, for a mixing ratio), took the sampling period's mean Vd
-    (:func:`deposition_rows`).  A fill outside them changes nothing, and a fill inside
-    them weighs by their number, not by the period's (docs/budget.md, "Gaps in Vd").
-
-    Parameters
-    ----------
-    site_index, a, b : ndarray of int (n,)
-        Site row and hour bounds of each sampling period (:func:`deposition_rows`).
-    c_fill : ndarray (S, R, T + 1)
-        Cumulative count of filled hours [1].
-    pa, pb : ndarray of int (P,)
-        Hour bounds of the reporting periods.
-    cn : ndarray (S, R, T + 1), optional
-        Cumulative count of the hours with a finite effective Vd (``deposition_rows``'
-        ``cn``; None: every hour has one).
-    known : ndarray of bool (n, R), optional
-        The sampling period's deposition is known (default: every one).
-
-    Returns
-    -------
-    ndarray (S, R, P)
-        Not-modelled hours / hours behind the flux [1]; NaN where there are none.
-    """
-    n_s, n_r, n_p = c_fill.shape[0], c_fill.shape[1], len(pa)
-    imputed = np.zeros((n_s, n_p, n_r))
-    behind = np.zeros((n_s, n_p, n_r))
-    if len(a):
-        si = site_index[:, None]
-        lo = np.maximum(a[:, None], pa[None, :])          # (row, period)
-        hi = np.maximum(np.minimum(b[:, None], pb[None, :]), lo)
-        hours = (hi - lo).astype(float)[:, :, None]       # (row, period, 1)
-        part = c_fill[si, :, hi] - c_fill[si, :, lo]      # (row, period, R)
-        if cn is not None:
-            part = part + hours - (cn[si, :, hi] - cn[si, :, lo])
-        w = (np.ones((len(a), 1, n_r)) if known is None
-             else np.asarray(known, float)[:, None, :])
-        np.add.at(imputed, site_index, part * w)
-        np.add.at(behind, site_index, hours * w)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        share = np.where(behind > 0, imputed / behind, np.nan)
-    return share.transpose(0, 2, 1)
-
-
 def period_mean(site_index, starts, ends, values, n_sites, periods):
     """Time-weighted mean of interval values (concentrations) over reporting periods.
 
