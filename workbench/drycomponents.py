@@ -311,8 +311,11 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
                     _, node = one(air, member, vd_sp)
                     out["bracket"][(pair, how)][member] = node.value[0]
                     out["keys"][("bracket", pair, how, member)] = node.key
+    def has_value(sp):        # a value, or a value below detection (enters substituted)
+        cens = air_v[f"{sp}_censored"].values if f"{sp}_censored" in air_v else False
+        return np.isfinite(air_v[sp].values) | cens
     out["measured"] = np.stack(
-        [np.isin(sites, np.unique(air_v["site"].values[np.isfinite(air_v[sp].values)]))
+        [np.isin(sites, np.unique(air_v["site"].values[has_value(sp)]))
          if sp in air_v else np.zeros(len(sites), bool) for sp in species_list], -1)
     # pair_split: the main components of a pair from the bracket's rows (_apply_split)
     out["split"] = split_pairs(options.pair_split, out, air_v, nodes)
@@ -334,12 +337,62 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
     return out
 
 
+def covered_filled_share(site_index, a, b, c_fill, pa, pb, cn=None, known=None):
+    """Share of the hours behind each reporting period's flux whose Vd is not modelled.
+
+    The hours behind the flux are those of the period (on the hour axis) inside a
+    sampling period whose deposition is known: only they enter it.  Of these, an hour
+    counts as not modelled when its Vd was filled from the diurnal cycle or, without
+    any Vd (nor air density, for a mixing ratio), took the sampling period's mean Vd
+    (:func:`deposition_rows`).  A fill outside them changes nothing, and a fill inside
+    them weighs by their number, not by the period's (docs/budget.md, "Gaps in Vd").
+
+    Parameters
+    ----------
+    site_index, a, b : ndarray of int (n,)
+        Site row and hour bounds of each sampling period (:func:`deposition_rows`).
+    c_fill : ndarray (S, R, T + 1)
+        Cumulative count of filled hours [1].
+    pa, pb : ndarray of int (P,)
+        Hour bounds of the reporting periods.
+    cn : ndarray (S, R, T + 1), optional
+        Cumulative count of the hours with a finite effective Vd (``deposition_rows``'
+        ``cn``; None: every hour has one).
+    known : ndarray of bool (n, R), optional
+        The sampling period's deposition is known (default: every one).
+
+    Returns
+    -------
+    ndarray (S, R, P)
+        Not-modelled hours / hours behind the flux [1]; NaN where there are none.
+    """
+    n_s, n_r, n_p = c_fill.shape[0], c_fill.shape[1], len(pa)
+    imputed = np.zeros((n_s, n_p, n_r))
+    behind = np.zeros((n_s, n_p, n_r))
+    if len(a):
+        si = site_index[:, None]
+        lo = np.maximum(a[:, None], pa[None, :])          # (row, period)
+        hi = np.maximum(np.minimum(b[:, None], pb[None, :]), lo)
+        hours = (hi - lo).astype(float)[:, :, None]       # (row, period, 1)
+        part = c_fill[si, :, hi] - c_fill[si, :, lo]      # (row, period, R)
+        if cn is not None:
+            part = part + hours - (cn[si, :, hi] - cn[si, :, lo])
+        w = (np.ones((len(a), 1, n_r)) if known is None
+             else np.asarray(known, float)[:, None, :])
+        np.add.at(imputed, site_index, part * w)
+        np.add.at(behind, site_index, hours * w)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        share = np.where(behind > 0, imputed / behind, np.nan)
+    return share.transpose(0, 2, 1)
+
+
 @_graph.stage("period_shares")
 def period_shares(o, rows, periods, n_sites, times):
     """One piece of rows shared among reporting periods (:func:`share_to_periods`)."""
     r = rows[0] if isinstance(rows, tuple) else rows
     return share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"], r["cs"],
-                            n_sites, period_axes(periods), times, r["start"], r["end"])
+                            n_sites, period_axes(periods), times, r["start"], r["end"],
+                            cn=r.get("cn"))
 
 
 def dry_components(rows: dict, periods: pd.DataFrame, share=None):
@@ -360,8 +413,10 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
     -------
     xarray.Dataset
         Dims (site, receptor, period, species): ``deposition`` [mol m-2] scaled to the
-        whole period, ``coverage`` [1] (site, period, species), ``vd_coverage`` and
-        ``vd_filled_share`` [1], ``flux_coverage`` [1] (hours with a concentration
+        whole period, ``coverage`` [1] (site, period, species), ``vd_coverage`` [1]
+        (share of the period's hours with a modelled Vd), ``vd_filled_share`` [1] (share
+        of the hours behind the flux, those in sampling periods with a known flux, whose
+        Vd was filled or, missing, taken as the sampling period's mean), ``flux_coverage`` [1] (hours with a concentration
         and a deposition velocity: 0 where Vd or the air density is missing for every
         hour, and the deposition is then NaN, never 0), ``measured`` (site, species),
         ``mixing_ratio`` (species: given as a mixing ratio), the pair brackets
@@ -387,7 +442,7 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         if share is not None:
             return share(name, r)
         return share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"], r["cs"],
-                                n_s, axes, times, r["start"], r["end"])
+                                n_s, axes, times, r["start"], r["end"], cn=r.get("cn"))
 
     for k, sp in enumerate(species_list):
         if sp not in rows["species"]:
@@ -401,7 +456,9 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
             conc[..., k] = period_mean(r["site_index"], r["start"], r["end"], r["conc"], n_s, axes)
         c_valid, c_fill = rows["vd_cum"][sp]
         vd_cov[..., k] = (c_valid[:, :, pb] - c_valid[:, :, pa]) / hours_p
-        filled_share[..., k] = (c_fill[:, :, pb] - c_fill[:, :, pa]) / np.maximum(pb - pa, 1)
+        filled_share[..., k] = covered_filled_share(r["site_index"], r["a"], r["b"], c_fill,
+                                                    pa, pb, r.get("cn"),
+                                                    np.isfinite(r["deposition"]))
     shared = {(pair, how): {m: agg(("bracket", pair, how, m), r) for m, r in members.items()}
               for (pair, how), members in rows["bracket"].items()}
     split = rows.get("split", {})

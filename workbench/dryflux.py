@@ -205,7 +205,9 @@ def select_samplers(air: xr.Dataset, species: str, preferred_method=None):
     Samplers that follow each other (a replaced instrument) are all used.  Where
     samplers overlap in time, the primary one (the preferred method, else the one
     covering the most hours) is used and the others' rows that overlap it are left
-    out; their rows outside its periods fill its gaps.
+    out; their rows outside its periods fill its gaps, in the same order of rank (a
+    row of a back-up sampler overlapping a kept row of a higher-ranked back-up is left
+    out too, so no hour is counted twice).
 
     Returns
     -------
@@ -230,18 +232,31 @@ def select_samplers(air: xr.Dataset, species: str, preferred_method=None):
         if len(names) <= 1:
             continue
         hours = pd.Series((end - start)[here] / np.timedelta64(1, "h")).groupby(samplers[here]).sum()
-        choice = hours.idxmax()
+        # rank: the preferred method's sampler, then by hours covered (ties by name)
+        rank = sorted((str(n) for n in names), key=lambda n: (-hours[n], n))
         if preferred_method and preferred_method.get(species):
             pref = np.unique(samplers[here & (method == preferred_method[species])])
             if len(pref):
-                choice = pref[0]
-        prim = np.flatnonzero(here & (samplers == choice))
-        order = prim[np.argsort(start[prim])]
-        ps, pe = start[order], end[order]
-        others = np.flatnonzero(here & (samplers != choice))
-        k = np.searchsorted(ps, end[others], side="left") - 1   # last primary starting before end
-        overlap = (k >= 0) & (pe[np.clip(k, 0, None)] > start[others])
-        dropped = others[overlap]
+                rank.remove(str(pref[0]))
+                rank.insert(0, str(pref[0]))
+        choice = rank[0]
+        # each sampler in rank order fills only the hours that no higher-ranked one
+        # covers: a row overlapping a kept row of a higher-ranked sampler is left out,
+        # so that no hour is counted twice (two back-up samplers in one gap of the
+        # primary would otherwise both count, and the coverage pass on double hours)
+        kept = np.flatnonzero(here & (samplers == choice))
+        dropped = []
+        for name in rank[1:]:
+            order = kept[np.argsort(start[kept], kind="stable")]
+            ks, ke = start[order], end[order]
+            mine = np.flatnonzero(here & (samplers == name))
+            k = np.searchsorted(ks, end[mine], side="left") - 1   # last kept row starting before end
+            # kept rows do not overlap each other, so their ends rise with their starts
+            overlap = (k >= 0) & (ke[np.clip(k, 0, None)] > start[mine]) if len(ks) else \
+                np.zeros(len(mine), bool)
+            dropped.append(mine[overlap])
+            kept = np.concatenate([kept, mine[~overlap]])
+        dropped = np.concatenate(dropped) if dropped else np.zeros(0, int)
         used[dropped] = False
         if len(dropped):
             notes.append(f"{species} at {site}: sampler {choice!r} is primary; {len(dropped)} "
@@ -274,7 +289,9 @@ def deposition_rows(conc, quantity, site_index, starts, ends, times, vd, n_air=N
     dict
         ``deposition`` (n, R) [mol m-2], ``mean_eff`` (n, R) [m s-1 or mol m-2 s-1],
         ``n_valid`` (n, R), ``hours`` (n,), ``a``, ``b`` (hour index bounds),
-        ``cs`` (S, R, T + 1) cumulative effective Vd.
+        ``cs`` (S, R, T + 1) cumulative effective Vd, ``cn`` (S, R, T + 1) cumulative
+        count of its finite hours (None when every hour is finite), for
+        :func:`share_to_periods`.
     """
     eff = vd if weight is None else vd * weight
     if quantity == "mixing_ratio":
@@ -287,6 +304,7 @@ def deposition_rows(conc, quantity, site_index, starts, ends, times, vd, n_air=N
     total = cs[site_index, :, b] - cs[site_index, :, a]
     if finite.all():        # every hour counts: the count of [a, b) is b - a
         n_valid = np.repeat((b - a).astype(float)[:, None], eff.shape[1], axis=1)
+        cn = None
     else:
         cn = _count_cumulative(finite)
         n_valid = cn[site_index, :, b] - cn[site_index, :, a]
@@ -295,7 +313,7 @@ def deposition_rows(conc, quantity, site_index, starts, ends, times, vd, n_air=N
         mean_eff = np.where(n_valid > 0, total / n_valid, np.nan)
     dep = conc[:, None] * mean_eff * hours[:, None] * HOUR_S
     return {"deposition": dep, "mean_eff": mean_eff, "n_valid": n_valid, "hours": hours,
-            "a": a, "b": b, "cs": cs, "start": starts, "end": ends}
+            "a": a, "b": b, "cs": cs, "cn": cn, "start": starts, "end": ends}
 
 
 def _inputs_for(air, species, vd: xr.DataArray, met, options):
@@ -401,7 +419,7 @@ def period_axes(periods) -> PeriodAxes:
 
 
 def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
-                     starts=None, ends=None, per_row=False):
+                     starts=None, ends=None, per_row=False, cn=None):
     """Numpy core of :func:`to_periods`.
 
     Parameters
@@ -421,6 +439,12 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
         mean Vd of its hours inside, so that the split among reporting periods and the
         coverage follow the real overlap.
 
+    cn : ndarray (S, R, T + 1), optional
+        Cumulative count of the hours with a finite effective Vd (``deposition_rows``'
+        ``cn``; None: every hour finite).  An hour without Vd inside a sampling period
+        takes the mean Vd of the period's hours with one, in the split as in the
+        period's deposition (D = C mean(Vd) dt), so that a gap on one side of a month
+        end does not move the deposition to the other side.
     per_row : bool
         Also return each sampling period's part of the result (for the Monte Carlo of
         :mod:`workbench.analysis.uncertainty`, which draws errors per sampling period).
@@ -455,6 +479,13 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
         part = cs[site_index[:, None], :, hi] - cs[site_index[:, None], :, lo_c]  # (row, period, R)
         whole = (cs[site_index, :, b] - cs[site_index, :, a])[:, None, :]
         inside = np.maximum(b - a, 0).astype(float)
+        if cn is not None:       # hours without Vd take the row's mean Vd of its valid hours
+            n_part = cn[site_index[:, None], :, hi] - cn[site_index[:, None], :, lo_c]
+            n_whole = (cn[site_index, :, b] - cn[site_index, :, a])[:, None, :]
+            with np.errstate(invalid="ignore", divide="ignore"):
+                mean_v = np.where(n_whole > 0, whole / n_whole, 0.0)        # (row, 1, R)
+            part = part + (ov[:, :, None] - n_part) * mean_v
+            whole = whole + (inside[:, None, None] - n_whole) * mean_v
         if starts is not None:
             hour = np.timedelta64(1, "h")
             ov_real = np.clip((np.minimum(ends[:, None], p_end[None, :])
@@ -490,7 +521,7 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
     return dep_out * scale, coverage, cov_hours, flux_hours
 
 
-def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
+def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times, cn=None):
     """Share period depositions among reporting periods and scale to full coverage.
 
     An air period that straddles a boundary is split by the sum of hourly (effective)
@@ -516,6 +547,10 @@ def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
         Reporting periods (``workbench.periods.make_periods``).
     times : ndarray of datetime64
         Hour axis of `cs`.
+    cn : ndarray, optional
+        Cumulative count of the finite hours of the same Vd (the ``cn`` of
+        :func:`deposition_rows`); None: every hour counts as finite.  See
+        :func:`share_to_periods`.
 
     Returns
     -------
@@ -527,7 +562,7 @@ def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times):
     si = pd.Index(list(sites)).get_indexer(rows["site"].values.astype(str))
     dep, coverage, cov_hours, _ = share_to_periods(
         si, rows["hour_start"].values, rows["hour_end"].values, rows["deposition"].values,
-        cs, len(sites), periods, times, rows["start"].values, rows["end"].values)
+        cs, len(sites), periods, times, rows["start"].values, rows["end"].values, cn=cn)
     return xr.Dataset(
         {
             "deposition": (("site", "receptor", "period"), dep,

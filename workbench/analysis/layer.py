@@ -118,7 +118,7 @@ def _dry_layers(rows, periods, sites, n_r):
         for _, r, factor in parts:
             *_, pr = share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"],
                                       r["cs"], len(row_sites), axes, times, r["start"],
-                                      r["end"], per_row=True)
+                                      r["end"], per_row=True, cn=r.get("cn"))
             a, b = r["a"], r["b"]
             per_row.append(factor * np.where(np.isfinite(pr), pr, 0.0))
             si.append(r["site_index"])
