@@ -387,3 +387,22 @@ def test_dry_n_total_without_nh3_and_no2_is_partial_and_names_them():
     _, out = _totals(none, np.full(dep.shape, "missing", dtype=object), none, el, pw, sp)
     assert np.isnan(out["total_deposition"].values[0, 0, 0, k])
     assert out["total_status"].values[0, 0, 0, k] == "missing"
+
+
+def test_to_periods_splits_hours_without_vd_as_the_pipeline_does():
+    """The public pair period_deposition -> to_periods gives the same split as the
+    pipeline above (the running count of hours with a Vd travels with the rows):
+    January 72/168 of the sample, February 96/168, each scaled to its month."""
+    from workbench.dryflux import to_periods
+    v = np.full(744 + 672, 0.01)
+    v[24 * 28:24 * 30] = np.nan                               # Jan 29 and 30
+    vd = _vd(v, "2021-01-01T01:00")["SO2"][0]
+    rows, cs = period_deposition(_air([("a", "2021-01-29", "2021-02-05", 1e-8)]), "SO2",
+                                 vd, None)
+    assert "vd_hours_cumulative" in rows
+    months = make_periods("2021-01-01", "2021-03-01", "month")
+    out = to_periods(rows, cs, ["a"], months, vd["time"].values)
+    total = 1e-8 * 0.01 * 168 * HOUR
+    np.testing.assert_allclose(out["deposition"].values[0, 0],
+                               [total * 72 / 168 * 744 / 72, total * 96 / 168 * 672 / 96],
+                               rtol=1e-12)

@@ -363,7 +363,9 @@ def period_deposition(air: xr.Dataset, species: str, vd: xr.DataArray, met: xr.D
         Dims (``row``, ``receptor``) over the rows of `air` used for the species:
         ``deposition`` [mol m-2], ``mean_vd`` [m s-1] (NaN for mixing ratios, whose
         mean is of n_air Vd), ``vd_hours`` (hours with a valid Vd), ``hours``, and
-        the row's ``site``, ``start``, ``end``, ``line``, ``censored``.
+        the row's ``site``, ``start``, ``end``, ``line``, ``censored``; where some
+        hours lack a Vd, ``vd_hours_cumulative`` (vd_site, receptor, hour_edge), the
+        running count of the hours with one, which :func:`to_periods` reads.
     cs : ndarray
         Cumulative effective Vd (site, receptor, time + 1), for :func:`to_periods`.
     """
@@ -393,6 +395,10 @@ def period_deposition(air: xr.Dataset, species: str, vd: xr.DataArray, met: xr.D
         coords={"receptor": vd["receptor"].values},
         attrs={"species": species, "quantity": quantity, "notes": "; ".join(notes)},
     )
+    if r.get("cn") is not None:
+        ds["vd_hours_cumulative"] = (("vd_site", "receptor", "hour_edge"), r["cn"],
+                                     {"long_name": "running count of the hours with a Vd "
+                                      "(site order of vd), for to_periods"})
     return ds, r["cs"]
 
 
@@ -549,8 +555,8 @@ def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times, cn=Non
         Hour axis of `cs`.
     cn : ndarray, optional
         Cumulative count of the finite hours of the same Vd (the ``cn`` of
-        :func:`deposition_rows`); None: every hour counts as finite.  See
-        :func:`share_to_periods`.
+        :func:`deposition_rows`); None: ``rows["vd_hours_cumulative"]`` where present,
+        else every hour counts as finite.  See :func:`share_to_periods`.
 
     Returns
     -------
@@ -560,6 +566,8 @@ def to_periods(rows: xr.Dataset, cs, sites, periods: pd.DataFrame, times, cn=Non
         ``covered_hours`` [h].
     """
     si = pd.Index(list(sites)).get_indexer(rows["site"].values.astype(str))
+    if cn is None and "vd_hours_cumulative" in rows:
+        cn = rows["vd_hours_cumulative"].values
     dep, coverage, cov_hours, _ = share_to_periods(
         si, rows["hour_start"].values, rows["hour_end"].values, rows["deposition"].values,
         cs, len(sites), periods, times, rows["start"].values, rows["end"].values, cn=cn)
