@@ -28,6 +28,13 @@ DIGITS = 3
 MAX_SITE_FIGURES = 12
 
 
+def _periods_text(periods) -> str:
+    """`` (2017, whole span)``: the periods of a note, the whole span last."""
+    named = sorted(p for p in periods if p != "span")
+    named += ["whole span"] if "span" in periods else []
+    return f" ({', '.join(named)})" if named else ""
+
+
 def _figures_limited(n_sites, shown, what) -> str:
     """The sentence telling the reader that figures were drawn for the first sites only."""
     if n_sites <= shown:
@@ -268,8 +275,11 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     notes_col = notes_col[notes_col != ""]
     if len(notes_col):
         parts.append("<h2>Notes on components</h2><ul>")
-        for (site, sp, note), _ in t.loc[notes_col.index].groupby(["site", "species", "note"]):
-            parts.append(f"<li>{html.escape(site)} {html.escape(sp)}: {html.escape(note)}</li>")
+        for (site, sp, note), g in t.loc[notes_col.index].groupby(["site", "species", "note"]):
+            # the periods it holds for: the same words with other numbers read as repeats
+            when = _periods_text(g["period"].astype(str).unique())
+            parts.append(f"<li>{html.escape(site)} {html.escape(sp)}{html.escape(when)}: "
+                         f"{html.escape(note)}</li>")
         parts.append("</ul>")
     parts.append("<h2>Figures</h2>")
     first = True

@@ -134,8 +134,9 @@ class SiteExplorer(widgets.VBox):
         self.progress.done("first run done")
         super().__init__(self._layout())
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
-        self.figure_export = FigureExport(
-            lambda: {f"{self.site} {k}": f for k, f in self.figs.items()}, "site-explorer")
+        self.figure_export = FigureExport(      # named by what they show: no overwrite
+            lambda: {f"{self.site} {self.receptor_w.value} {self._span()} {k}": f
+                     for k, f in self.figs.items()}, "site-explorer")
         self.children = (*self.children, self.figure_export)
         self._wire()
 
@@ -221,6 +222,11 @@ class SiteExplorer(widgets.VBox):
         run, a third of the work for three receptors)."""
         res = "month" if self._monthly_shown() else "year"
         return self.session.run(self.settings, self.site, *self.years, res, self.receptor_w.value)
+
+    def _span(self) -> str:
+        """The years shown, as a label (``2021`` or ``2019-2021``)."""
+        first, last = self.years
+        return f"{first}" if first == last else f"{first}-{last}"
 
     def _current_totals(self):
         return mean_totals(self.result.years, self.site, self.receptor_w.value, None,
@@ -421,7 +427,9 @@ class SiteExplorer(widgets.VBox):
             written = self.session.export_run(out, self.settings, self.site, *self.years,
                                               overwrite=overwrite, progress=self.progress.step)
         except Exception as exc:
-            self.message_w.value = f"<span style='color:#D55E00'>not exported: {html.escape(str(exc))}</span>"
+            # the app's control is the "overwrite" box, not the command line's option
+            text = str(exc).replace("use --overwrite", "tick 'overwrite'")
+            self.message_w.value = f"<span style='color:#D55E00'>not exported: {html.escape(text)}</span>"
             self.progress.step("export failed", 1.0)
             raise
         self.progress.done("exported")

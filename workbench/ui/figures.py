@@ -272,6 +272,17 @@ def title_room(title: str) -> int:
     return 100 + 50 * max(0, str(title).count("<br>") - 1)
 
 
+#: Statuses of a total that may be ranked and read as whole.
+WHOLE = ("complete", "filled")
+
+
+def status_note(statuses) -> str:
+    """`` (partial)``, `` (flagged, partial)`` ...: the statuses among `statuses` that are
+    not complete or filled, for a legend entry or a column heading; ``""`` when none."""
+    bad = sorted({str(x) for x in statuses} - set(WHOLE))
+    return f" ({', '.join(bad)})" if bad else ""
+
+
 def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr", template=TEMPLATE):
     """Response of each total to one assumption, the baseline marked.
 
@@ -280,6 +291,8 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
     table : pandas.DataFrame
         ``value`` (the assumption's setting), ``total`` (``S_total`` ...),
         ``rate`` [unit], ``status`` (see :func:`workbench.ui.session.Session.sweep`).
+        A point whose total is not complete or filled has an open marker, and its
+        curve's legend entry names the status (``N total (partial)``).
     label : str
         The assumption's name with its unit (x axis title).
     baseline : object
@@ -302,7 +315,10 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
             g = t[t["total"] == f"{el}_{pw}"]
             fig.add_trace(go.Scatter(
                 x=g["x"], y=[v if np.isfinite(v) else None for v in g["rate"]],
-                mode="lines+markers", name=f"{el} {pw}", legendgroup=pw,
+                mode="lines+markers", name=f"{el} {pw}{status_note(g['status'])}",
+                legendgroup=pw,
+                marker=dict(symbol=["circle" if x in WHOLE else "circle-open"
+                                    for x in g["status"]]),
                 line=dict(color=PATHWAY_COLOURS[pw], width=3 if pw == "total" else 1.5),
                 customdata=g["status"],
                 hovertemplate=(f"{el} {pw} at %{{x}}: %{{y:.3g}} {axis_text(unit, element=el)}"
