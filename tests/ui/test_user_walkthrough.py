@@ -128,3 +128,21 @@ def test_first_order_sobol_bars_beside_the_total_bars():
     hi = lambda t: t["offset"] + t["width"]                              # noqa: E731
     assert hi(total) <= lo(first) or hi(first) <= lo(total)             # no overlap
     assert np.isclose(first["width"], total["width"])
+
+
+def test_budget_legend_says_what_an_open_diamond_and_a_missing_bar_are(two_sites_2021):
+    """fell/mere without NO2: the legend listed "dry NO2" like a part of the stack and
+    showed only a filled diamond for "total" beside an open one on the N bar."""
+    from workbench.ui.assumptions import Settings
+    from workbench.ui.figures import budget_bars_spec
+    from workbench.ui.session import Session
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        s = Session.open(two_sites_2021)
+        settings = Settings.from_scenario(s.scenario)
+        mere = s.run(settings, "mere", 2021, 2021, receptor="wetland")
+        ridge = s.run(settings, "ridge", 2021, 2021, receptor="conifer_forest")
+    note = budget_bars_spec(mere.years, "mere", "wetland")["layout"]["annotations"][0]["text"]
+    assert "◇ total partial or flagged" in note and "no data: dry NO2" in note
+    whole = budget_bars_spec(ridge.years, "ridge", "conifer_forest")["layout"]["annotations"]
+    assert "no data" not in whole[0]["text"]

@@ -106,8 +106,29 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
               "yaxis": {"title": {"text": axis_text(unit)}},
               "xaxis": {"title": {"text": "element and period"}},
               "legend": {"title": {"text": "pathway and species"}, "groupclick": "toggleitem"},
-              "height": legend_height(len(traces) + len(titled))}
+              "height": legend_height(len(traces) + len(titled)),
+              "annotations": [legend_note(traces, sym)]}
     return {"data": traces, "layout": layout}
+
+
+def legend_note(traces, symbols) -> dict:
+    """A note under the budget's legend on what the legend cannot say: an open diamond is
+    a total that is partial or flagged, and a component listed without a bar has no data
+    (its entry otherwise reads as a part of the stack).  Empty text when neither."""
+    lines = []
+    if TOTAL_SYMBOL[False] in symbols:
+        lines.append("◇ total partial or flagged")
+    empty = [t["name"] for t in traces
+             if t.get("type") == "bar" and all(v is None for v in t["y"])]
+    if empty:
+        lines.append(wrap_text("no data: " + ", ".join(empty), NOTE_CHARS))
+    return {"text": "<br>".join(lines), "showarrow": False, "xref": "paper", "yref": "paper",
+            "x": 1.02, "y": 0, "xanchor": "left", "yanchor": "top", "align": "left",
+            "font": {"size": 11}}
+
+
+#: Most characters on a line of the note under the budget's legend.
+NOTE_CHARS = 24
 
 
 #: Height of a legend line [px] and the figure's height outside the plot area with the
