@@ -322,6 +322,8 @@ def table_html(frame: pd.DataFrame, empty="none") -> str:
         return f"<p><i>{html.escape(empty)}</i></p>"
     body = frame.to_html(index=False, border=0, escape=True, na_rep="–", justify="left",
                          float_format=table_number)
+    # JupyterLab's stylesheet right-aligns a th: the headings stood off their cells
+    body = body.replace("<th>", "<th style='text-align:left;padding-right:1em'>")
     return (f"<div style='max-height:{TABLE_HEIGHT};max-width:100%;overflow:auto;"
             f"font-size:85%'>{body}</div>")
 
