@@ -12,6 +12,7 @@ chromium), each checked here without a browser:
   markers and tabling them under a plain heading;
 - first-order Sobol bars hidden behind the total bars.
 """
+import html
 import warnings
 
 import numpy as np
@@ -147,3 +148,33 @@ def test_budget_legend_says_what_an_open_diamond_and_a_missing_bar_are(two_sites
     assert "◇ total partial or flagged" in note and "no data: dry NO2" in note
     whole = budget_bars_spec(ridge.years, "ridge", "conifer_forest")["layout"]["annotations"]
     assert "no data" not in whole[0]["text"]
+
+
+def test_critical_load_path_table_in_percent_with_units(session):
+    """The path table read "cut_S 0.025" beside sliders in % and "1.44e+03" eq/ha/yr."""
+    from workbench.ui.apps_analysis import CriticalLoadsExplorer
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = CriticalLoadsExplorer(session, site="ridge", years=(2021, 2021))
+    text = app.table_w.value
+    assert "cut S [%]" in text and "cut_S" not in text
+    assert "N deposition [eq/ha/yr]" in text and "e+0" not in text
+    cut = app.path["cut_S"].to_numpy()
+    assert f"<td>{100 * cut[-1]:.3g}</td>" in text           # the last step, as a percent
+
+
+def test_nh3_sentence_when_a_fixed_vd_replaces_the_net(ridge_app):
+    """With 'NH3 exchange' on net and a fixed Vd of NH3, the sentence said "'NH3 exchange'
+    under 'ammonia' gives the net" beside that very choice."""
+    from workbench.ui.assumptions import ASSUMPTIONS
+    before = ridge_app.settings
+    try:
+        s = ASSUMPTIONS["dry.nh3_treatment"].set(before, "ridge", "bidirectional")
+        ridge_app.settings = ASSUMPTIONS["fixed_velocity.NH3"].set(s, "ridge", 0.5)
+        ridge_app.recompute()
+        text = html.unescape(ridge_app.nh3_w.value)
+        assert "deposition only" in text and "fixed Vd of NH3 replaces" in text
+        assert "gives the net)" in text and "under 'ammonia' gives" not in text
+    finally:
+        ridge_app.settings = before
+        ridge_app.recompute()

@@ -300,8 +300,14 @@ class SiteExplorer(widgets.VBox):
             self._drawn[name] = key
 
     def _nh3_html(self):
-        return html.escape(nh3_line(self.result.years, self.site, self.receptor_w.value,
-                                    self.unit_w.value))
+        text = nh3_line(self.result.years, self.site, self.receptor_w.value, self.unit_w.value)
+        if (self.settings.dry.nh3_treatment == "bidirectional"
+                and self.settings.fixed_velocity.get("NH3") is not None):
+            # the net was asked for: the sentence must not send the user back to it
+            text = text.replace("'NH3 exchange' under 'ammonia' gives the net",
+                                "the fixed Vd of NH3 replaces the exchange model that "
+                                "gives the net")
+        return html.escape(text)
 
     def _bracket_html(self):
         from .bracket import bracket_line
