@@ -62,8 +62,9 @@ def plain(v, digits=DIGITS) -> str:
 
 def _table_html(frame: pd.DataFrame, float_format=None) -> str:
     fmt = plain if float_format is None else (lambda v: float_format.format(v))
-    return frame.to_html(index=False, border=0, classes="tab", na_rep="–",
-                         float_format=fmt)
+    # a named column axis (a pivot's "status") is written as an empty column of its own
+    return frame.rename_axis(columns=None).to_html(index=False, border=0, classes="tab",
+                                                   na_rep="–", float_format=fmt)
 
 
 _MARK = {"complete": "", "flagged": " f", "partial": " p", "filled": " ~", "missing": ""}
@@ -124,7 +125,9 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES) -> tuple:
         return out + ["<p>No annual totals.</p>"], first
     tr = tr[tr["values"] == "all"]
     out.append(_table_html(tr[["site", "receptor", "element", "n_years", "tau", "p_value",
-                               "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid"]]))
+                               "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid"]].rename(
+        columns={"sen_slope_per_yr": "Sen slope [kg/ha/yr per yr]",       # S or N, as the
+                 "sen_slope_pct_per_yr": "Sen slope [% per yr]"})))      # element says
     sites = list(dict.fromkeys(tot["site"]))
     shown = set(sites[:max_sites])
     out.append(_figures_limited(len(sites), len(shown), "Trend figures are"))
