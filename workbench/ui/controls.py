@@ -307,6 +307,11 @@ def figure_widget(fig) -> go.FigureWidget:
     return w
 
 
+#: Headings of a table over their cells (left, like the cells) with room between columns.
+TABLE_CSS = ("<style>.wb-table th {text-align: left !important; padding-right: 1em;} "
+             ".wb-table td {padding-right: 1em;}</style>")
+
+
 def table_number(v: float) -> str:
     """A number of a table as a reader takes it in: three significant digits, and whole
     numbers with thousands separators from 1,000 up (``1,441``, never ``1.44e+03``)."""
@@ -321,9 +326,9 @@ def table_html(frame: pd.DataFrame, empty="none") -> str:
     if frame is None or frame.empty:
         return f"<p><i>{html.escape(empty)}</i></p>"
     body = frame.to_html(index=False, border=0, escape=True, na_rep="–", justify="left",
-                         float_format=table_number)
+                         float_format=table_number, classes="wb-table")
     # JupyterLab's stylesheet right-aligns a th: the headings stood off their cells
-    body = body.replace("<th>", "<th style='text-align:left;padding-right:1em'>")
+    body = TABLE_CSS + body
     return (f"<div style='max-height:{TABLE_HEIGHT};max-width:100%;overflow:auto;"
             f"font-size:85%'>{body}</div>")
 
