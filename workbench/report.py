@@ -28,6 +28,13 @@ DIGITS = 3
 MAX_SITE_FIGURES = 12
 
 
+def _periods_text(periods) -> str:
+    """`` (2017, whole span)``: the periods of a note, the whole span last."""
+    named = sorted(p for p in periods if p != "span")
+    named += ["whole span"] if "span" in periods else []
+    return f" ({', '.join(named)})" if named else ""
+
+
 def _figures_limited(n_sites, shown, what) -> str:
     """The sentence telling the reader that figures were drawn for the first sites only."""
     if n_sites <= shown:
@@ -55,8 +62,9 @@ def plain(v, digits=DIGITS) -> str:
 
 def _table_html(frame: pd.DataFrame, float_format=None) -> str:
     fmt = plain if float_format is None else (lambda v: float_format.format(v))
-    return frame.to_html(index=False, border=0, classes="tab", na_rep="–",
-                         float_format=fmt)
+    # a named column axis (a pivot's "status") is written as an empty column of its own
+    return frame.rename_axis(columns=None).to_html(index=False, border=0, classes="tab",
+                                                   na_rep="–", float_format=fmt)
 
 
 _MARK = {"complete": "", "flagged": " f", "partial": " p", "filled": " ~", "missing": ""}
@@ -117,7 +125,9 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES) -> tuple:
         return out + ["<p>No annual totals.</p>"], first
     tr = tr[tr["values"] == "all"]
     out.append(_table_html(tr[["site", "receptor", "element", "n_years", "tau", "p_value",
-                               "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid", "note"]]))
+                               "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid", "note"]].rename(
+        columns={"sen_slope_per_yr": "Sen slope [kg/ha/yr per yr]",       # S or N, as the
+                 "sen_slope_pct_per_yr": "Sen slope [% per yr]"})))      # element says
     sites = list(dict.fromkeys(tot["site"]))
     shown = set(sites[:max_sites])
     out.append(_figures_limited(len(sites), len(shown), "Trend figures are"))
@@ -268,8 +278,11 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     notes_col = notes_col[notes_col != ""]
     if len(notes_col):
         parts.append("<h2>Notes on components</h2><ul>")
-        for (site, sp, note), _ in t.loc[notes_col.index].groupby(["site", "species", "note"]):
-            parts.append(f"<li>{html.escape(site)} {html.escape(sp)}: {html.escape(note)}</li>")
+        for (site, sp, note), g in t.loc[notes_col.index].groupby(["site", "species", "note"]):
+            # the periods it holds for: the same words with other numbers read as repeats
+            when = _periods_text(g["period"].astype(str).unique())
+            parts.append(f"<li>{html.escape(site)} {html.escape(sp)}{html.escape(when)}: "
+                         f"{html.escape(note)}</li>")
         parts.append("</ul>")
     parts.append("<h2>Figures</h2>")
     first = True

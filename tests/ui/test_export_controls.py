@@ -40,7 +40,7 @@ def test_every_app_writes_one_file_per_figure(session, two_sites_2021, tmp_path,
         assert str(tmp_path / "out") in control.message_w.value
         assert f"{len(paths)} figure" in control.message_w.value
     names = {p.name for p in (tmp_path / "out").iterdir()}
-    assert "site-explorer-ridge-budget.html" in names
+    assert "site-explorer-ridge-conifer-forest-2021-budget.html" in names
     assert "critical-loads-ridge-2021.html" in names
     assert {"network-totals.html", "network-s.html", "network-n.html"} <= names
 

@@ -180,14 +180,22 @@ def test_line_numbers_of_reasons_are_counted_together():
     assert LINE_NUMBER.sub(r"\1 n", "PO4 below detection") == "PO4 below detection"
 
 
-def test_resistance_axes_label_powers_of_ten_only(ridge_app):
-    """A log axis of resistances labelled 100, 2, 5, 1000 read like a scale break; only
-    powers of ten are labelled."""
+def test_resistance_axes_label_whole_values_inside_the_data(ridge_app):
+    """A log axis of resistances labelled 100, 2, 5, 1000 read like a scale break, and one
+    labelled at powers of ten only showed a single label ("100") for a day between 20
+    and 300 s m-1: the ticks are 1-2-5 values written whole, at least two of them inside
+    the curves' range."""
+    import numpy as np
     from workbench.ui import figures_dry
     r = ridge_app.result
     spec = figures_dry.resistance_breakdown_spec(r.velocities, "ridge", "conifer_forest", "SO2")
     axes = [v for k, v in spec["layout"].items() if k.startswith("yaxis")]
-    assert axes and all(a.get("type") == "log" and a.get("dtick") == 1 for a in axes)
+    assert axes and all(a.get("type") == "log" for a in axes)
+    for a in axes:
+        assert a["ticktext"] == [f"{v:g}" for v in a["tickvals"]]     # "200", never "2"
+    ys = np.array([v for t in spec["data"] for v in t["y"] if v is not None], float)
+    inside = [v for v in axes[0]["tickvals"] if ys.min() <= v <= ys.max()]
+    assert len(inside) >= 2, (ys.min(), ys.max(), inside)
 
 
 def test_excluded_samples_table_says_time_zone_and_units(session):

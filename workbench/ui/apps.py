@@ -134,8 +134,9 @@ class SiteExplorer(widgets.VBox):
         self.progress.done("first run done")
         super().__init__(self._layout())
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
-        self.figure_export = FigureExport(
-            lambda: {f"{self.site} {k}": f for k, f in self.figs.items()}, "site-explorer")
+        self.figure_export = FigureExport(      # named by what they show: no overwrite
+            lambda: {f"{self.site} {self.receptor_w.value} {self._span()} {k}": f
+                     for k, f in self.figs.items()}, "site-explorer")
         self.children = (*self.children, self.figure_export)
         self._wire()
 
@@ -222,6 +223,11 @@ class SiteExplorer(widgets.VBox):
         res = "month" if self._monthly_shown() else "year"
         return self.session.run(self.settings, self.site, *self.years, res, self.receptor_w.value)
 
+    def _span(self) -> str:
+        """The years shown, as a label (``2021`` or ``2019-2021``)."""
+        first, last = self.years
+        return f"{first}" if first == last else f"{first}-{last}"
+
     def _current_totals(self):
         return mean_totals(self.result.years, self.site, self.receptor_w.value, None,
                            self.unit_w.value)
@@ -294,8 +300,14 @@ class SiteExplorer(widgets.VBox):
             self._drawn[name] = key
 
     def _nh3_html(self):
-        return html.escape(nh3_line(self.result.years, self.site, self.receptor_w.value,
-                                    self.unit_w.value))
+        text = nh3_line(self.result.years, self.site, self.receptor_w.value, self.unit_w.value)
+        if (self.settings.dry.nh3_treatment == "bidirectional"
+                and self.settings.fixed_velocity.get("NH3") is not None):
+            # the net was asked for: the sentence must not send the user back to it
+            text = text.replace("'NH3 exchange' under 'ammonia' gives the net",
+                                "the fixed Vd of NH3 replaces the exchange model that "
+                                "gives the net")
+        return html.escape(text)
 
     def _bracket_html(self):
         from .bracket import bracket_line
@@ -421,7 +433,9 @@ class SiteExplorer(widgets.VBox):
             written = self.session.export_run(out, self.settings, self.site, *self.years,
                                               overwrite=overwrite, progress=self.progress.step)
         except Exception as exc:
-            self.message_w.value = f"<span style='color:#D55E00'>not exported: {html.escape(str(exc))}</span>"
+            # the app's control is the "overwrite" box, not the command line's option
+            text = str(exc).replace("use --overwrite", "tick 'overwrite'")
+            self.message_w.value = f"<span style='color:#D55E00'>not exported: {html.escape(text)}</span>"
             self.progress.step("export failed", 1.0)
             raise
         self.progress.done("exported")

@@ -7,6 +7,7 @@ import html
 
 import ipywidgets as widgets
 import numpy as np
+import pandas as pd
 
 from ..analysis.exceedance import (REGIONS, acidity_exceedance, not_determined,
                                    nutrient_n_exceedance)
@@ -26,6 +27,25 @@ FIRST_CUTS = {"S": 0.5, "NOx": 0.5, "NHx": 0.5}
 #: Columns of the path shown under the figure.
 PATH_COLUMNS = ("fraction", "cut_S", "cut_NOx", "cut_NHx", "s_dep_eq_ha_yr", "n_dep_eq_ha_yr",
                 "ex_acidity_eq_ha_yr", "ex_nutrient_n_eq_ha_yr")
+
+
+#: Headings of the path table as shown (the cuts in %, like the sliders; every number
+#: its unit).
+PATH_HEADINGS = {"fraction": "share of the cuts [%]", "cut_S": "cut S [%]",
+                 "cut_NOx": "cut oxidized N [%]", "cut_NHx": "cut reduced N [%]",
+                 "s_dep_eq_ha_yr": "S deposition [eq/ha/yr]",
+                 "n_dep_eq_ha_yr": "N deposition [eq/ha/yr]",
+                 "ex_acidity_eq_ha_yr": "acidity exceedance [eq/ha/yr]",
+                 "ex_nutrient_n_eq_ha_yr": "nutrient-N exceedance [eq/ha/yr]"}
+
+
+def path_display(path: pd.DataFrame) -> pd.DataFrame:
+    """The what-if path as the table under the figure: fractions [1] as percent [%],
+    headings in words with units (the table read "cut_S 0.025" beside a slider of %)."""
+    t = path[list(PATH_COLUMNS)].copy()
+    for c in ("fraction", "cut_S", "cut_NOx", "cut_NHx"):
+        t[c] = 100.0 * t[c]
+    return t.rename(columns=PATH_HEADINGS)
 
 
 class CriticalLoadsExplorer(widgets.VBox):
@@ -204,7 +224,7 @@ class CriticalLoadsExplorer(widgets.VBox):
             f"<p><b>{html.escape(self.statement)}</b></p>")
         refresh(self.fig, clf_spec(loads, first["s_dep_eq_ha_yr"], first["n_dep_eq_ha_yr"],
                                    self.path, where, MODES[mode], ranges=row))
-        self.table_w.value = table_html(self.path[list(PATH_COLUMNS)])
+        self.table_w.value = table_html(path_display(self.path))
         return self.statement
 
 

@@ -165,7 +165,9 @@ class SensitivityExplorer(widgets.VBox):
             self.note_w.value = f"Baseline: {html.escape(str(base_shown))} (star)."
         refresh(self.fig, fig)
         show = shown.pivot_table(index="value", columns="total", values="rate", sort=False)
-        show.columns = [f"{c} [{unit}]" for c in show.columns]     # every number its unit
+        notes = shown.groupby("total", sort=False)["status"].agg(figures.status_note)
+        # every number its unit, and a total that is not whole says so in its heading
+        show.columns = [f"{c} [{unit}]{notes.get(c, '')}" for c in show.columns]
         show.columns.name = None
         self.table_w.value = table_html(show.reset_index().rename(
             columns={"value": a.label if "[" in a.label else f"{a.label} (setting)"}))

@@ -199,7 +199,24 @@ def _as_spec(fig) -> dict:
 def _remember(widget, spec: dict):
     widget._wb_shown = {"types": [t.get("type", "scatter") for t in spec["data"]],
                         "traces": [_flatten(t) for t in spec["data"]],
-                        "layout": _flatten(spec["layout"])}
+                        "layout": _flatten(spec["layout"]), "spec": spec}
+
+
+def shown_figure(fig) -> go.Figure:
+    """The figure an app last drew into `fig`, as a new plotly Figure.
+
+    A FigureWidget updated by :func:`refresh` gives the figure built from the last spec
+    sent to it (with the widget's template), not the widget's Python-side traces: those
+    also take deltas the browser sends back, and were seen holding ``y = None`` for
+    bars the page showed (an exported budget drew them flat along the axis).  Any other
+    figure is copied as it is.
+    """
+    shown = getattr(fig, "_wb_shown", None)
+    if shown is None or "spec" not in shown:
+        return go.Figure(fig)
+    spec = shown["spec"]
+    return go.Figure({"data": spec["data"],
+                      "layout": {**spec["layout"], "template": fig.layout.template}})
 
 
 def refresh(widget: go.FigureWidget, fig) -> dict:
@@ -263,7 +280,7 @@ def refresh(widget: go.FigureWidget, fig) -> dict:
     if restyle or relayout:
         widget.plotly_update(restyle_data=restyle, relayout_data=relayout,
                              trace_indexes=list(range(n)))
-    shown.update(traces=new_traces, layout=new_layout)
+    shown.update(traces=new_traces, layout=new_layout, spec=spec)
     keep_state(widget)
     return {"restyled": sum(sum(v is not Undefined for v in vals) for vals in restyle.values()),
             "relayout": len(relayout) + len(compound), "replaced": False}
@@ -290,12 +307,28 @@ def figure_widget(fig) -> go.FigureWidget:
     return w
 
 
+#: Headings of a table over their cells (left, like the cells) with room between columns.
+TABLE_CSS = ("<style>.wb-table th {text-align: left !important; padding-right: 1em;} "
+             ".wb-table td {padding-right: 1em;}</style>")
+
+
+def table_number(v: float) -> str:
+    """A number of a table as a reader takes it in: three significant digits, and whole
+    numbers with thousands separators from 1,000 up (``1,441``, never ``1.44e+03``)."""
+    if not np.isfinite(v):
+        return "–"
+    return f"{v:,.0f}" if abs(v) >= 1000 else f"{v:.3g}"
+
+
 def table_html(frame: pd.DataFrame, empty="none") -> str:
-    """A scrolling HTML table of a DataFrame (text escaped)."""
+    """A scrolling HTML table of a DataFrame (text escaped; headings over their columns,
+    left-aligned like the cells; numbers by :func:`table_number`)."""
     if frame is None or frame.empty:
         return f"<p><i>{html.escape(empty)}</i></p>"
-    body = frame.to_html(index=False, border=0, escape=True, na_rep="–",
-                         float_format=lambda v: f"{v:.3g}")
+    body = frame.to_html(index=False, border=0, escape=True, na_rep="–", justify="left",
+                         float_format=table_number, classes="wb-table")
+    # JupyterLab's stylesheet right-aligns a th: the headings stood off their cells
+    body = TABLE_CSS + body
     return (f"<div style='max-height:{TABLE_HEIGHT};max-width:100%;overflow:auto;"
             f"font-size:85%'>{body}</div>")
 

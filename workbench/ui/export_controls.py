@@ -15,6 +15,7 @@ from typing import Callable
 
 import ipywidgets as widgets
 
+from .controls import shown_figure
 from .export import FORMATS, ExportError, export_figure
 from .session import output_dir
 
@@ -65,7 +66,8 @@ class FigureExport(widgets.HBox):
         """Write every figure as ``<folder>/<prefix>-<name>.<fmt>``; returns the paths.
 
         A figure that cannot be written as PNG/SVG is written as HTML (noted in the
-        message); files of the same name are replaced.
+        message); files of the same name are replaced.  A FigureWidget is written as the
+        app last drew it (:func:`~workbench.ui.controls.shown_figure`).
         """
         fmt = fmt or self.format_w.value
         folder = Path(self._folder())
@@ -73,6 +75,8 @@ class FigureExport(widgets.HBox):
         written, fallback = [], []
         for name, fig in self._figures().items():
             path = folder / f"{file_stem(self.prefix, name)}.{fmt}"
+            if not isinstance(fig, dict):
+                fig = shown_figure(fig)
             try:
                 written.append(export_figure(fig, path))
             except ExportError as exc:

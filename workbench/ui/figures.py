@@ -106,8 +106,29 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
               "yaxis": {"title": {"text": axis_text(unit)}},
               "xaxis": {"title": {"text": "element and period"}},
               "legend": {"title": {"text": "pathway and species"}, "groupclick": "toggleitem"},
-              "height": legend_height(len(traces) + len(titled))}
+              "height": legend_height(len(traces) + len(titled)),
+              "annotations": [legend_note(traces, sym)]}
     return {"data": traces, "layout": layout}
+
+
+def legend_note(traces, symbols) -> dict:
+    """A note under the budget's legend on what the legend cannot say: an open diamond is
+    a total that is partial or flagged, and a component listed without a bar has no data
+    (its entry otherwise reads as a part of the stack).  Empty text when neither."""
+    lines = []
+    if TOTAL_SYMBOL[False] in symbols:
+        lines.append("◇ total partial or flagged")
+    empty = [t["name"] for t in traces
+             if t.get("type") == "bar" and all(v is None for v in t["y"])]
+    if empty:
+        lines.append(wrap_text("no data: " + ", ".join(empty), NOTE_CHARS))
+    return {"text": "<br>".join(lines), "showarrow": False, "xref": "paper", "yref": "paper",
+            "x": 1.02, "y": 0, "xanchor": "left", "yanchor": "top", "align": "left",
+            "font": {"size": 11}}
+
+
+#: Most characters on a line of the note under the budget's legend.
+NOTE_CHARS = 24
 
 
 #: Height of a legend line [px] and the figure's height outside the plot area with the
@@ -272,6 +293,17 @@ def title_room(title: str) -> int:
     return 100 + 50 * max(0, str(title).count("<br>") - 1)
 
 
+#: Statuses of a total that may be ranked and read as whole.
+WHOLE = ("complete", "filled")
+
+
+def status_note(statuses) -> str:
+    """`` (partial)``, `` (flagged, partial)`` ...: the statuses among `statuses` that are
+    not complete or filled, for a legend entry or a column heading; ``""`` when none."""
+    bad = sorted({str(x) for x in statuses} - set(WHOLE))
+    return f" ({', '.join(bad)})" if bad else ""
+
+
 def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr", template=TEMPLATE):
     """Response of each total to one assumption, the baseline marked.
 
@@ -280,6 +312,8 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
     table : pandas.DataFrame
         ``value`` (the assumption's setting), ``total`` (``S_total`` ...),
         ``rate`` [unit], ``status`` (see :func:`workbench.ui.session.Session.sweep`).
+        A point whose total is not complete or filled has an open marker, and its
+        curve's legend entry names the status (``N total (partial)``).
     label : str
         The assumption's name with its unit (x axis title).
     baseline : object
@@ -302,7 +336,10 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
             g = t[t["total"] == f"{el}_{pw}"]
             fig.add_trace(go.Scatter(
                 x=g["x"], y=[v if np.isfinite(v) else None for v in g["rate"]],
-                mode="lines+markers", name=f"{el} {pw}", legendgroup=pw,
+                mode="lines+markers", name=f"{el} {pw}{status_note(g['status'])}",
+                legendgroup=pw,
+                marker=dict(symbol=["circle" if x in WHOLE else "circle-open"
+                                    for x in g["status"]]),
                 line=dict(color=PATHWAY_COLOURS[pw], width=3 if pw == "total" else 1.5),
                 customdata=g["status"],
                 hovertemplate=(f"{el} {pw} at %{{x}}: %{{y:.3g}} {axis_text(unit, element=el)}"

@@ -153,9 +153,17 @@ def resistance_breakdown_spec(vel, site, receptor, gas="SO2", utc_offset_h=0.0) 
                 "hovertemplate": f"{label} {season} %{{x}} h: median %{{y:.3g}} s m-1<extra></extra>"}
         traces.extend(enumerate(_season_traces(value, n, make)))
     return _panels(traces, utc_offset_h,
-                   {"all": {"type": "log", "dtick": 1},     # 1, 10, 100: no stray "2", "5"
+                   # 1-2-5 ticks written out whole ("20", "50", "200"): at powers of ten
+                   # only, a day between 20 and 300 s m-1 had one label, "100"; plotly's
+                   # own minor labels read as a stray "2", "5"
+                   {"all": {"type": "log", "tickvals": LOG_TICKS,
+                            "ticktext": [f"{v:g}" for v in LOG_TICKS]},
                     "first": {"title": {"text": "median resistance [s m-1]"}}},
                    f"Resistances of {gas} (medians by hour) · {site} · {receptor}", "resistance")
+
+
+#: Tick values of a log axis of resistances [s m-1]: 1, 2, 5, 10 ... 50,000.
+LOG_TICKS = [m * 10 ** e for e in range(5) for m in (1, 2, 5)]
 
 
 def resistance_breakdown(vel, site, receptor, gas="SO2", utc_offset_h=0.0, template=TEMPLATE):

@@ -12,6 +12,9 @@ import pandas as pd
 from .figures import from_spec, subplot_layout
 from .palette import OKABE_ITO, TEMPLATE
 
+#: Thickness of each Sobol bar [fraction of a factor's row]: first order and total side
+#: by side.
+SOBOL_BAR = 0.4
 #: Output units of the tornado, by element.
 _UNITS = {"S": "kg S/ha per period", "N": "kg N/ha per period", "S+N": "eq/ha per period"}
 
@@ -44,9 +47,12 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
     t = _pick(tornado, site, receptor, period, element, quantity)
     traces = []
     (x1, y1), (x2, y2) = axes
-    for col, name, colour in (("S1", "first order", OKABE_ITO["blue"]),
-                              ("ST", "total", OKABE_ITO["orange"])):
+    # side by side in each factor's row (the panel overlays bars for the tornado: the
+    # total bar, drawn second, hid the first-order one under it)
+    for col, name, colour, offset in (("S1", "first order", OKABE_ITO["blue"], 0.0),
+                                      ("ST", "total", OKABE_ITO["orange"], -SOBOL_BAR)):
         traces.append({"type": "bar", "orientation": "h", "name": name,
+                       "width": SOBOL_BAR, "offset": offset,
                        "x": s[col].tolist(), "y": s["factor"].tolist(),
                        "error_x": {"type": "data", "array": s[f"{col}_conf"].tolist()},
                        "marker": {"color": colour}, "xaxis": x1.replace("axis", ""),
