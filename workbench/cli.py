@@ -217,9 +217,12 @@ def cmd_demo(args) -> int:
     print()
     if result.screened is not None:
         st = pd.Series(result.screened["status"].values.astype(str)).value_counts()
-        print("precipitation QA: " + ", ".join(f"{int(st.get(k, 0))} {k}" for k in
-                                               ("used", "flagged", "excluded", "dry"))
-              + " (reasons per sample in samples.csv)")
+        words = {"used": "used", "flagged": "used with a QA flag", "excluded": "excluded",
+                 "dry": "dry"}
+        print("precipitation screening, per sample: "
+              + ", ".join(f"{int(st.get(k, 0))} {w}" for k, w in words.items())
+              + " (status and reasons in samples.csv; the rows per file above count the "
+              "rows read with a note)")
         print()
     t = result.table
     span = t[(t["period"] == "span") & (t["species"] == "all") & (t["pathway"] == "total")]
@@ -228,7 +231,8 @@ def cmd_demo(args) -> int:
         cols = ["site", "receptor", "element", "flux_kg_ha_yr", "flux_eq_ha_yr", "status",
                 "missing_components", "years_used"]
         print(span[[c for c in cols if c in span]].to_string(
-            index=False, float_format=lambda v: f"{v:.3g}"))
+            index=False, formatters={"flux_kg_ha_yr": "{:.3g}".format,
+                                     "flux_eq_ha_yr": "{:,.0f}".format}))
         print("status: complete (every component, passes completeness); filled (gaps "
               "filled); partial (a component has no data: missing_components names it, "
               "here and per year in budget.csv); flagged (fails completeness, or holds "
