@@ -293,10 +293,33 @@ def keep_state(widget: go.FigureWidget) -> None:
     later (a reloaded page, a second view of the output) starts from the synced state,
     which plotly sets only at construction and display.  The views open now do not
     draw again when it changes.
+
+    The state is the figure last drawn by :func:`refresh` (the spec that
+    :func:`shown_figure` exports, with the widget's trace uids and template), not the
+    widget's Python-side traces: those also take deltas the browser sends back and were
+    seen holding ``y = None`` for bars the page showed.  A widget that :func:`refresh`
+    has not drawn (or whose traces no longer match the spec) keeps its own data.
     """
     from copy import deepcopy
-    widget._widget_layout = deepcopy(widget._layout_obj._props)
-    widget._widget_data = deepcopy(widget._data)
+    shown = getattr(widget, "_wb_shown", None)
+    spec = shown.get("spec") if shown else None
+    if spec is None or len(spec["data"]) != len(widget._data):
+        widget._widget_layout = deepcopy(widget._layout_obj._props)
+        widget._widget_data = deepcopy(widget._data)
+        return
+    data = []
+    for drawn, live in zip(spec["data"], widget._data):
+        trace = deepcopy(dict(drawn))
+        trace.setdefault("type", live.get("type", "scatter"))
+        if "uid" in live:                    # the views match traces by their uid
+            trace["uid"] = live["uid"]
+        data.append(trace)
+    layout = deepcopy(dict(spec["layout"]))
+    for k in STATIC_LAYOUT:                  # the template: the widget's own
+        if k in widget._layout_obj._props:
+            layout[k] = deepcopy(widget._layout_obj._props[k])
+    widget._widget_layout = layout
+    widget._widget_data = data
 
 
 def figure_widget(fig) -> go.FigureWidget:
