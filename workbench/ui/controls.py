@@ -153,6 +153,46 @@ class Progress(widgets.HBox):
     def done(self, text="ready"):
         self.step(f"{text} ({time.perf_counter() - self.started:.2f} s)", 1.0)
 
+    def counted(self, items, what, span=(0.05, 1.0), echo=None, every_s=0.2):
+        """Iterate over `items`, showing the count done in words ("engine runs: 40 of
+        100"), with the bar moved across `span` of its length.
+
+        Parameters
+        ----------
+        items : iterable
+            Taken as a list (its length is the count shown).
+        what : str
+            What is counted (the text before the count).
+        span : (float, float)
+            Fractions [1] of the bar at the first and the last item.
+        echo : callable, optional
+            Also given each text shown (e.g. a label of the app).
+        every_s : float
+            Shortest time between two updates [s]; the first and the last count are
+            always shown.
+
+        Yields
+        ------
+        The items, in order; the count moves when the caller has taken the next one.
+        """
+        items = list(items)
+        n, (lo, hi) = len(items), span
+
+        def show(i):
+            text = f"{what}: {i} of {n}"
+            self.step(text, lo + (hi - lo) * i / n if n else hi)
+            if echo is not None:
+                echo(text)
+
+        show(0)
+        last = time.perf_counter()
+        for i, item in enumerate(items, 1):
+            yield item
+            now = time.perf_counter()
+            if i == n or now - last >= every_s:
+                show(i)
+                last = now
+
 
 def _flatten(d: dict, prefix: str = "", out: dict | None = None) -> dict:
     """Nested plotly JSON as ``{"marker.line.color": value}`` (lists are leaves)."""
