@@ -81,3 +81,64 @@ def test_sobol_app_shows_its_progress_in_words(session):
     assert any(re.fullmatch(r"engine runs for the Sobol indices: \d+ of \d+", t)
                for t in texts)                            # the bar of the app, in words
     assert app.progress.label.value.startswith("analysis done")
+
+
+def _components(missing=()):
+    import pandas as pd
+    species = ("SO2", "pSO4", "HNO3", "pNO3", "NH3", "pNH4", "NO2")
+    return pd.DataFrame({"period": "2021", "pathway": "dry", "species": species,
+                         "value": [float("nan") if sp in missing else 1.0 for sp in species],
+                         "status": ["missing" if sp in missing else "complete"
+                                    for sp in species]})
+
+
+def test_no_effect_names_the_reason_it_can_know():
+    from workbench.ui.summaries import no_effect_text
+    comp = _components()
+    text = no_effect_text("fixed_velocity.HNO3", "fixed Vd of HNO3", comp,
+                          pair_split="all_particle")
+    assert "no HNO3 left" in text and "all as particle" in text and "Vd of pNO3" in text
+    text = no_effect_text("dry.nh3_treatment", "NH3 exchange", comp, pair_split="all_particle")
+    assert "no NH3 left" in text
+    text = no_effect_text("particles.pNO3.fine_fraction", "pNO3 fine", comp,
+                          pair_split="all_gas")
+    assert "no pNO3 left" in text and "all as gas" in text
+    # the member the pair is moved into still acts: no reason invented
+    assert no_effect_text("fixed_velocity.pNO3", "fixed Vd of pNO3", comp,
+                          pair_split="all_particle").endswith("these years.")
+    assert no_effect_text("fixed_velocity.HNO3", "x", comp).endswith("these years.")
+    text = no_effect_text("fixed_velocity.NO2", "fixed Vd of NO2", _components(("NO2",)))
+    assert text.endswith("(no NO2 concentrations here)")
+    # a pair with a member unmeasured is not moved (workbench.drypairs.split_pairs)
+    text = no_effect_text("fixed_velocity.HNO3", "x", _components(("pNO3",)),
+                          pair_split="all_particle")
+    assert "left" not in text
+    text = no_effect_text("budget.pair_split", "split", _components(("pNO3", "pNH4")),
+                          pair_split="all_gas")
+    assert "split moves nothing" in text
+    text = no_effect_text("wet.seasalt_tracer", "sea-salt tracer", comp, sulfate_basis="total")
+    assert "sulfate basis is total" in text
+    assert no_effect_text("wet.seasalt_tracer", "t", comp).endswith(".")
+    both = no_effect_text("fixed_velocity.pNH4", "fixed Vd of pNH4", comp, "bulk",
+                          "exclude_particles", "all_gas")
+    assert "no pNH4 left" in both and both.endswith("docs/budget.md)")
+
+
+def test_site_explorer_says_why_a_control_had_no_effect(ridge_2021):
+    """Seen in the walk-through: with the split all as particle, the fixed Vd of HNO3
+    moved nothing and the page said only '+0.0 %'."""
+    import warnings
+
+    from workbench.ui.apps import SiteExplorer
+    from workbench.ui.session import Session
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = SiteExplorer(Session.open(ridge_2021), site="ridge", years=(2021, 2021))
+        app.controls["budget.pair_split"].value = "all_particle"
+        assert "no effect" not in app.change_w.value
+        app.controls["fixed_velocity.HNO3"].value = 2.0
+        assert "no effect on the totals" in app.change_w.value
+        assert "no HNO3 left" in app.change_w.value
+        app.controls["budget.sulfate_basis"].value = "total"
+        app.controls["wet.seasalt_tracer"].value = "Mg"
+        assert "the sulfate basis is total" in app.change_w.value
