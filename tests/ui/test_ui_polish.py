@@ -142,3 +142,23 @@ def test_site_explorer_says_why_a_control_had_no_effect(ridge_2021):
         app.controls["budget.sulfate_basis"].value = "total"
         app.controls["wet.seasalt_tracer"].value = "Mg"
         assert "the sulfate basis is total" in app.change_w.value
+
+
+def test_sweep_without_effect_says_why(session):
+    """A sweep that moves no total says why, as the site explorer does: the fixed Vd of
+    HNO3 under the split all as particle."""
+    import warnings
+
+    from workbench.ui.apps_more import SensitivityExplorer
+    app_settings = session.baseline
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = SensitivityExplorer(session, site="ridge", years=(2021, 2021),
+                                  key="fixed_velocity.HNO3")
+        assert "no effect" not in app.note_w.value            # it acts as measured
+        from workbench.ui.assumptions import ASSUMPTIONS
+        app.settings = ASSUMPTIONS["budget.pair_split"].set(app_settings, "ridge",
+                                                            "all_particle")
+        app.run()
+    assert "no effect over the sweep" in app.note_w.value
+    assert "no HNO3 left" in app.note_w.value

@@ -59,18 +59,17 @@ def no_effect_text(key, label, components: pd.DataFrame, collector="wet_only",
                if (st == "missing").all()}
     species = _species_of(key)
     reasons = []
-    if pair_split in SPLIT_INTO:
-        # a pair is moved when both members are measured (workbench.drypairs.split_pairs)
-        moved = {pair: m for pair, m in PAIRS.items() if not missing & set(m)}
-        for pair, members in moved.items():
-            into = members[SPLIT_INTO[pair_split]]
-            if species in members and species != into:
-                phase = "gas" if SPLIT_INTO[pair_split] == 0 else "particle"
-                reasons.append(f"the gas/particle split puts the {pair} pair all as {phase}: "
-                               f"no {species} left, both members deposit with the Vd of {into}")
-        if key == "budget.pair_split" and not moved:
-            reasons.append("no gas/particle pair has both members measured here, so the "
-                           "split moves nothing")
+    # a pair is moved when both members are measured (workbench.drypairs.split_pairs)
+    moved = {pair: m for pair, m in PAIRS.items() if not missing & set(m)}
+    if key == "budget.pair_split" and not moved:
+        reasons.append("no gas/particle pair has both members measured here, so the "
+                       "split moves nothing")
+    for pair, members in moved.items() if pair_split in SPLIT_INTO else ():
+        into = members[SPLIT_INTO[pair_split]]
+        if species in members and species != into:
+            phase = "gas" if SPLIT_INTO[pair_split] == 0 else "particle"
+            reasons.append(f"the gas/particle split puts the {pair} pair all as {phase}: "
+                           f"no {species} left, both members deposit with the Vd of {into}")
     if species is not None and species in missing:
         reasons.append(f"no {species} concentrations here")
     if key == "wet.seasalt_tracer" and sulfate_basis == "total":
