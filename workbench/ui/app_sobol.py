@@ -2,8 +2,9 @@
 
 Sobol indices (:func:`workbench.analysis.sensitivity.sobol`) and the one-at-a-time
 tornado of the chosen site, receptor and years, with the factors and ranges of the
-scenario's ``[sensitivity]`` section; a tqdm bar counts the engine runs (written into
-a label of the app, so that it also moves when the analysis runs from a button).
+scenario's ``[sensitivity]`` section; the app's progress bar counts the engine runs in
+words ("engine runs for the Sobol indices: 40 of 100", :meth:`Progress.counted`), and a
+line of the app keeps the counts of the last analysis.
 """
 from __future__ import annotations
 
@@ -119,8 +120,6 @@ class SobolExplorer(widgets.VBox):
 
     def run(self):
         """Compute the indices and the tornado of the chosen site, receptor and years."""
-        from tqdm import tqdm
-
         from ..analysis import sensitivity as S
         site, rec = self.site_w.value, self.receptor_w.value
         y0, y1 = self.years_w.value
@@ -135,14 +134,18 @@ class SobolExplorer(widgets.VBox):
         kw = {"resolution": "year", "start": start, "end": end, "receptors": [rec],
               "overrides": st.overrides}
         self.bar_w.value = ""
+        counts = {}
 
-        def counted(items):          # tqdm's text bar, written into a label of the app
-            return tqdm(list(items), desc="engine runs", file=_LabelFile(self.bar_w),
-                        ascii=True, mininterval=0.2)
+        def counted(what, span):      # the count in words, in the progress bar and bar_w
+            def say(text):
+                counts[what] = text
+                self.bar_w.value = "; ".join(counts.values())
+            return lambda items: self.progress.counted(items, what, span, echo=say)
         self.progress.start("Sobol analysis")
-        self.sobol = S.sobol(study, base, opt, kw, counted)
-        self.progress.step("tornado", 0.8)
-        self.tornado = S.tornado(study, base, opt, kw, counted)
+        self.sobol = S.sobol(study, base, opt, kw,
+                             counted("engine runs for the Sobol indices", (0.05, 0.8)))
+        self.tornado = S.tornado(study, base, opt, kw,
+                                 counted("engine runs for the tornado", (0.8, 1.0)))
         self.shown = (site, rec, (y0, y1))
         years = sorted(set(self.sobol["period"].astype(str))) or [str(y1)]
         self.year_w.options = years
@@ -151,17 +154,3 @@ class SobolExplorer(widgets.VBox):
         self.progress.done("analysis done")
         return self.sobol
 
-
-class _LabelFile:
-    """A text stream for tqdm that shows its last line in a Label widget."""
-
-    def __init__(self, label: widgets.Label):
-        self.label = label
-
-    def write(self, text: str):
-        text = text.strip("\r\n ")
-        if text:
-            self.label.value = text
-
-    def flush(self):
-        pass

@@ -365,7 +365,8 @@ class SiteExplorer(widgets.VBox):
             self.change_w.value += html.escape(" — " + no_effect_text(
                 key, a.label, component_rates(self.result.years, self.site,
                                               self.receptor_w.value),
-                site.collector, self.settings.budget.bulk_correction))
+                site.collector, self.settings.budget.bulk_correction,
+                self.settings.budget.pair_split, self.settings.budget.sulfate_basis))
 
     def _on_site(self, change):
         recs = self.session.receptors(self.site)

@@ -163,6 +163,7 @@ class SensitivityExplorer(widgets.VBox):
             self.note_w.value = "Baseline: left to the model or the catalogue (dotted line)."
         else:
             self.note_w.value = f"Baseline: {html.escape(str(base_shown))} (star)."
+        self.note_w.value += self._no_effect_note(a, values, site, years, rec)
         refresh(self.fig, fig)
         show = shown.pivot_table(index="value", columns="total", values="rate", sort=False)
         notes = shown.groupby("total", sort=False)["status"].agg(figures.status_note)
@@ -173,6 +174,25 @@ class SensitivityExplorer(widgets.VBox):
             columns={"value": a.label if "[" in a.label else f"{a.label} (setting)"}))
         self.progress.done("sweep done")
         return self.table
+
+
+    def _no_effect_note(self, a, values, site, years, rec) -> str:
+        """Why no total moved over the sweep (:mod:`workbench.ui.no_effect`), as text to
+        add to the note; empty when a total moved."""
+        from .no_effect import no_effect_text
+        from .summaries import component_rates
+        rates = self.table.pivot_table(index="value", columns="total", values="rate",
+                                       sort=False).to_numpy(float)
+        if len(values) < 2 or not np.isfinite(rates).all() or np.ptp(rates, axis=0).any():
+            return ""
+        res = self.session.run(a.set(self.settings, site, values[0]), site, *years, "year",
+                               rec)              # a run of the sweep: the session has it
+        b = self.settings.budget
+        text = no_effect_text(a.key, a.label, component_rates(res.years, site, rec),
+                              self.session.study.catalogue()[site].collector,
+                              b.bulk_correction, b.pair_split, b.sulfate_basis)
+        return " " + html.escape(text.replace(
+            "no effect on the totals", "no effect over the sweep on the totals"))
 
 
 class NetworkOverview(widgets.VBox):

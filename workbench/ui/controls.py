@@ -153,6 +153,46 @@ class Progress(widgets.HBox):
     def done(self, text="ready"):
         self.step(f"{text} ({time.perf_counter() - self.started:.2f} s)", 1.0)
 
+    def counted(self, items, what, span=(0.05, 1.0), echo=None, every_s=0.2):
+        """Iterate over `items`, showing the count done in words ("engine runs: 40 of
+        100"), with the bar moved across `span` of its length.
+
+        Parameters
+        ----------
+        items : iterable
+            Taken as a list (its length is the count shown).
+        what : str
+            What is counted (the text before the count).
+        span : (float, float)
+            Fractions [1] of the bar at the first and the last item.
+        echo : callable, optional
+            Also given each text shown (e.g. a label of the app).
+        every_s : float
+            Shortest time between two updates [s]; the first and the last count are
+            always shown.
+
+        Yields
+        ------
+        The items, in order; the count moves when the caller has taken the next one.
+        """
+        items = list(items)
+        n, (lo, hi) = len(items), span
+
+        def show(i):
+            text = f"{what}: {i} of {n}"
+            self.step(text, lo + (hi - lo) * i / n if n else hi)
+            if echo is not None:
+                echo(text)
+
+        show(0)
+        last = time.perf_counter()
+        for i, item in enumerate(items, 1):
+            yield item
+            now = time.perf_counter()
+            if i == n or now - last >= every_s:
+                show(i)
+                last = now
+
 
 def _flatten(d: dict, prefix: str = "", out: dict | None = None) -> dict:
     """Nested plotly JSON as ``{"marker.line.color": value}`` (lists are leaves)."""
@@ -293,10 +333,33 @@ def keep_state(widget: go.FigureWidget) -> None:
     later (a reloaded page, a second view of the output) starts from the synced state,
     which plotly sets only at construction and display.  The views open now do not
     draw again when it changes.
+
+    The state is the figure last drawn by :func:`refresh` (the spec that
+    :func:`shown_figure` exports, with the widget's trace uids and template), not the
+    widget's Python-side traces: those also take deltas the browser sends back and were
+    seen holding ``y = None`` for bars the page showed.  A widget that :func:`refresh`
+    has not drawn (or whose traces no longer match the spec) keeps its own data.
     """
     from copy import deepcopy
-    widget._widget_layout = deepcopy(widget._layout_obj._props)
-    widget._widget_data = deepcopy(widget._data)
+    shown = getattr(widget, "_wb_shown", None)
+    spec = shown.get("spec") if shown else None
+    if spec is None or len(spec["data"]) != len(widget._data):
+        widget._widget_layout = deepcopy(widget._layout_obj._props)
+        widget._widget_data = deepcopy(widget._data)
+        return
+    data = []
+    for drawn, live in zip(spec["data"], widget._data):
+        trace = deepcopy(dict(drawn))
+        trace.setdefault("type", live.get("type", "scatter"))
+        if "uid" in live:                    # the views match traces by their uid
+            trace["uid"] = live["uid"]
+        data.append(trace)
+    layout = deepcopy(dict(spec["layout"]))
+    for k in STATIC_LAYOUT:                  # the template: the widget's own
+        if k in widget._layout_obj._props:
+            layout[k] = deepcopy(widget._layout_obj._props[k])
+    widget._widget_layout = layout
+    widget._widget_data = data
 
 
 def figure_widget(fig) -> go.FigureWidget:

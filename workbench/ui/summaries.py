@@ -12,6 +12,7 @@ import xarray as xr
 
 from ..periods import MONTH_SEASON, SEASON_NAMES
 from ..units import element_deposition_in
+from .no_effect import PARTICLES, no_effect_text  # noqa: F401  (its home before)
 
 #: Reported units: label -> (deposition unit key of
 #: :func:`workbench.units.element_deposition_in`, axis text of a yearly rate, axis text
@@ -473,38 +474,6 @@ def change_line(before: pd.DataFrame | None, after: pd.DataFrame, unit="kg/ha/yr
             pct = ""
         parts.append(f"{label} {_fmt(old, d)} -> {_fmt(new, d)} {unit}{pct}{tail}")
     return "; ".join(parts)
-
-
-#: Particulate species of the budget (their dry deposition is 0 at a bulk collector with
-#: ``bulk_correction = "exclude_particles"``, docs/budget.md).
-PARTICLES = ("pSO4", "pNO3", "pNH4")
-
-
-def no_effect_text(key, label, components: pd.DataFrame, collector="wet_only",
-                   bulk_correction="none") -> str:
-    """Why moving an assumption left every total as it was, where the reason is known.
-
-    Parameters
-    ----------
-    key, label : str
-        The assumption's key (``fixed_velocity.NO2``, ``particles.fine_mmd``...) and label.
-    components : pandas.DataFrame
-        :func:`component_rates` of the site and years shown.
-    collector, bulk_correction : str
-        The site's collector and ``[budget] bulk_correction``.
-    """
-    head = f"{label}: no effect on the totals of this site and these years"
-    dry = components[components["pathway"] == "dry"]
-    species = key.split(".")[1] if key.startswith("fixed_velocity.") else None
-    if key.startswith("particles.") or species in PARTICLES:
-        if collector == "bulk" and bulk_correction == "exclude_particles":
-            return (head + " (a bulk collector: its wet deposition holds the particle dry "
-                    "deposition, counted 0 in the dry pathway; docs/budget.md)")
-    if species is not None:
-        st = dry.loc[dry["species"] == species, "status"]
-        if len(st) and (st == "missing").all():
-            return head + f" (no {species} concentrations here)"
-    return head + "."
 
 
 def network_table(year_ds: xr.Dataset, catalogue=None, unit="kg/ha/yr") -> pd.DataFrame:
