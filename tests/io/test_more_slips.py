@@ -47,3 +47,53 @@ def test_end_of_day_lines_across_the_chunks_of_the_fast_reader(tmp_path, cat):
     assert got is not None
     note = [n for n in got[1].notes if "24:00" in n]
     assert note[0].endswith(f"4 rows (lines {at[0]}, {at[1]}, {at[2]}, ... (1 more))")
+
+
+# ------------------------------------------------------------ shifted column in the air file
+def _air_text(shift=False, interleave=False):
+    """12 weeks of a filter pack fp1 (SO2, HNO3, pSO4; weeks 3, 6, 9 failed: no values)
+    and a passive NH3 sampler pas1 beside it; `shift`: the pSO4 cells of fp1 pasted one
+    row down; `interleave`: the two samplers' rows alternate week by week."""
+    t = pd.date_range("2020-01-07T09:00", periods=13, freq="7D")
+    failed = {2, 5, 8}
+    so4 = [f"{1.0 + 0.1 * i:.1f}" if i not in failed else "" for i in range(12)]
+    if shift:
+        so4 = [""] + so4[:-1]
+    fp = [f"alpha,{t[i]:%Y-%m-%dT%H:%M},{t[i + 1]:%Y-%m-%dT%H:%M},fp1,"
+          + (f"{2.0 + 0.1 * i:.1f},0.2,," if i not in failed else ",,,") + so4[i]
+          for i in range(12)]
+    pas = [f"alpha,{t[i]:%Y-%m-%dT%H:%M},{t[i + 1]:%Y-%m-%dT%H:%M},pas1,,,{1.0 + 0.05 * i:.2f},"
+           for i in range(12)]
+    rows = [r for pair in zip(fp, pas) for r in pair] if interleave else fp + pas
+    head = ["# reference_state: ambient",
+            "site,start,end,sampler_id,SO2 [ug/m3],HNO3_as_N [ug/m3],NH3 [ug/m3],pSO4 [ug/m3]"]
+    return "\n".join(head + rows) + "\n"
+
+
+def test_a_column_shifted_one_row_in_the_air_file_is_refused(tmp_path, cat):
+    # before: read in silence, each pSO4 value against the week before its own
+    from workbench.errors import InputError
+    from workbench.io import read_air
+    p = tmp_path / "a.csv"
+    p.write_text(_air_text(shift=True))
+    with pytest.raises(InputError) as exc:
+        read_air(p, cat)
+    msg = str(exc.value)
+    # by hand: fp1's weeks i = 0..11 are lines 3..14; after the paste pSO4 sits on the
+    # failed weeks 2, 5, 8 (orphans; the first, line 5, holds week 1's 1.1) and is gone
+    # from the analysed weeks 0, 3, 6, 9 (holes)
+    assert "line 5, column 'pSO4 [ug/m3]'" in msg and "got '1.1'" in msg, msg
+    assert ("a column shifted one row down? 3 rows hold a value where the row has no other "
+            "concentration and 4 rows lack one where the others have theirs") in msg
+
+
+@pytest.mark.parametrize("interleave", [False, True])
+def test_air_samplers_of_different_species_are_no_shift(tmp_path, cat, interleave):
+    # a passive NH3 sampler's rows alternating with a filter pack's would look like a
+    # one-row shift over the whole file: the rows are compared per site and sampler
+    from workbench.io import read_air
+    p = tmp_path / "a.csv"
+    p.write_text(_air_text(interleave=interleave))
+    ds, led = read_air(p, cat)
+    assert int(np.isfinite(ds["pSO4"].values).sum()) == 9
+    assert int(np.isfinite(ds["NH3"].values).sum()) == 12
