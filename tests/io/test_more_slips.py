@@ -97,3 +97,69 @@ def test_air_samplers_of_different_species_are_no_shift(tmp_path, cat, interleav
     ds, led = read_air(p, cat)
     assert int(np.isfinite(ds["pSO4"].values).sum()) == 9
     assert int(np.isfinite(ds["NH3"].values).sum()) == 12
+
+
+# ------------------------------------------------------------ degC under a degF header
+def _catalogue(tmp_path, latitude, elevation=20.0):
+    from tiny_inputs import alpha_site
+    from workbench.io import read_sites
+    text = alpha_site().replace("latitude = 52.0", f"latitude = {latitude}") \
+                       .replace("elevation_m = 20.0", f"elevation_m = {elevation}")
+    (tmp_path / "s.toml").write_text(text)
+    return read_sites(tmp_path / "s.toml")
+
+
+def _year_degf(tmp_path, written, days=365):
+    """A met file of `days` days from 2021-01-01 with `written` (a function of the hour
+    index) under 'temperature [degF]'."""
+    t = pd.date_range("2021-01-01T01:00", periods=24 * days, freq="h")
+    h = np.arange(len(t))
+    df = pd.DataFrame({"site": "alpha", "time": t.strftime("%Y-%m-%dT%H:%M"),
+                       "wind_speed [m/s]": 3.0, "relative_humidity [%]": 80.0,
+                       "solar_radiation [W/m2]": 0.0, "precipitation [mm]": 0.0,
+                       "pressure [hPa]": 1010.0,
+                       "temperature [degF]": np.round(written(h), 2)})
+    p = tmp_path / "m.csv"
+    p.write_text("# time_label: end\n" + df.to_csv(index=False))
+    return p
+
+
+def _celsius(h, mean=12.0):
+    """An invented lowland year [degC]: seasonal +-10, diurnal +-4 (2-26 degC)."""
+    return mean - 10 * np.cos(2 * np.pi * h / 8760) + 4 * np.sin(2 * np.pi * (h % 24 - 9) / 24)
+
+
+DEGC_UNDER_DEGF = ("temperature looks like degC although the header says degF: no hour at or "
+                   "above 41 degF in a whole year at a site below 50 deg latitude and 1000 m "
+                   "(masked)")
+
+
+def test_degc_under_a_degf_header_is_masked_at_a_lowland_mid_latitude_site(tmp_path, met_reader):
+    # before: 2-26 degC read as 2-26 degF (-17..-3 degC), a winter all year, kept
+    from tiny_inputs import ledger_reasons
+    met, led = met_reader(_year_degf(tmp_path, _celsius), _catalogue(tmp_path, 45.0))
+    assert np.isnan(met["temperature"]).all()
+    assert DEGC_UNDER_DEGF in ledger_reasons(led)
+
+
+@pytest.mark.parametrize("latitude, elevation, days, degf", [
+    (45.0, 20.0, 365, True),       # the same year in degF (36-79 degF): read as written
+    (75.0, 20.0, 365, False),      # a polar site's real degF year below 41 degF: not judged
+    (45.0, 2500.0, 365, False),    # a mountain site: not judged
+    (45.0, 20.0, 150, False),      # winter and spring only: the season could explain it
+])
+def test_degf_records_the_rule_leaves_alone(tmp_path, latitude, elevation, days, degf):
+    from tiny_inputs import ledger_reasons
+    if degf:
+        written = lambda h: _celsius(h) * 1.8 + 32                         # noqa: E731
+    else:
+        written = lambda h: _celsius(h, mean=-20.0) * 1.8 + 32 if latitude > 50 or \
+            elevation > 1000 else _celsius(h)                              # noqa: E731
+    met, led = read_met(_year_degf(tmp_path, written, days),
+                        _catalogue(tmp_path, latitude, elevation))
+    assert np.isfinite(met["temperature"]).all()
+    assert DEGC_UNDER_DEGF not in ledger_reasons(led)
+    # every value as written, converted once: (F - 32) / 1.8 + 273.15
+    h = np.arange(24 * days)
+    np.testing.assert_allclose(met["temperature"].values.ravel(),
+                               (np.round(written(h), 2) - 32) / 1.8 + 273.15, atol=1e-9)
