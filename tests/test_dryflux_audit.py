@@ -427,6 +427,9 @@ def test_a_sample_shorter_than_an_hour_without_an_hour_middle_adds_no_hours():
     expected = (3 * 1e-8 * 0.01 * 168 + 5e-8 * 0.01 * 0.5) * HOUR * 672 / 504.5
     assert _dep(d)[0] == pytest.approx(expected, rel=1e-12)
     assert d["flux_coverage"].values[0, 0, 0, 0] == pytest.approx(504.5 / 672, rel=1e-12)
+    # the mean concentration over the covered hours leaves it out too
+    assert d["concentration"].values[0, 0, 0] == pytest.approx(
+        (3 * 168 * 1e-8 + 0.5 * 5e-8) / 504.5, rel=1e-12)
     r, _ = period_deposition(_air(rows), "SO2", vel["SO2"][0], None)
     assert r["vd_hours"].values[3:, 0].tolist() == [1, 0]
     assert r["deposition"].values[3, 0] == pytest.approx(5e-8 * 0.01 * 0.5 * HOUR)
