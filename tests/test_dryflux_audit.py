@@ -406,3 +406,35 @@ def test_to_periods_splits_hours_without_vd_as_the_pipeline_does():
     np.testing.assert_allclose(out["deposition"].values[0, 0],
                                [total * 72 / 168 * 744 / 72, total * 96 / 168 * 672 / 96],
                                rtol=1e-12)
+
+
+def test_a_sample_shorter_than_an_hour_without_an_hour_middle_adds_no_hours():
+    """February 2021 (672 h), Vd 1 cm/s every hour.  Weeks 1-3 sampled at 1e-8 mol/m3
+    (504 h); on 02-25 a 30-minute sample 10:10-10:40 at 5e-8 holds the middle (10:30)
+    of the hour ending 11:00: D = 5e-8 x 0.01 x 0.5 h, 0.5 covered hour; on 02-26 a
+    45-minute sample 10:35-11:20 holds no hour's middle (10:30 < 10:35, 11:30 >= 11:20):
+    no Vd hour, no flux, and now no covered hours either (before: its 0.75 h counted in
+    the coverage though no flux stood behind them).  By hand:
+    coverage = 504.5 / 672, D_month = (3 x 1e-8 x 0.01 x 168 h + 5e-8 x 0.01 x 0.5 h)
+    x 3600 s/h x 672 / 504.5."""
+    feb = make_periods("2021-02-01", "2021-03-01", "month")
+    rows = _weeks("2021-02-01", 3, 1e-8) + [
+        ("a", pd.Timestamp("2021-02-25T10:10"), pd.Timestamp("2021-02-25T10:40"), 5e-8),
+        ("a", pd.Timestamp("2021-02-26T10:35"), pd.Timestamp("2021-02-26T11:20"), 5e-8)]
+    vel = _vd(np.full(672, 0.01), "2021-02-01T01:00")
+    d = _dry(_air(rows), vel, feb)
+    assert d["coverage"].values[0, 0, 0] == pytest.approx(504.5 / 672, rel=1e-12)
+    expected = (3 * 1e-8 * 0.01 * 168 + 5e-8 * 0.01 * 0.5) * HOUR * 672 / 504.5
+    assert _dep(d)[0] == pytest.approx(expected, rel=1e-12)
+    assert d["flux_coverage"].values[0, 0, 0, 0] == pytest.approx(504.5 / 672, rel=1e-12)
+    # the mean concentration over the covered hours leaves it out too
+    assert d["concentration"].values[0, 0, 0] == pytest.approx(
+        (3 * 168 * 1e-8 + 0.5 * 5e-8) / 504.5, rel=1e-12)
+    r, _ = period_deposition(_air(rows), "SO2", vel["SO2"][0], None)
+    assert r["vd_hours"].values[3:, 0].tolist() == [1, 0]
+    assert r["deposition"].values[3, 0] == pytest.approx(5e-8 * 0.01 * 0.5 * HOUR)
+    assert np.isnan(r["deposition"].values[4, 0])
+    note = ("SO2: 1 air sample shorter than an hour holds no hour's middle (hh:30) "
+            "(line 6): no deposition, and not counted in the covered hours")
+    assert note in r.attrs["notes"]
+    assert note in dry_rows(_air(rows), vel, None, ["a"], BudgetOptions())["notes"]

@@ -21,7 +21,7 @@ from . import species as _species
 from .budget import COMPONENTS, PAIRS, BudgetError, BudgetOptions
 from .budgetstatus import bracket_velocities
 from .dryflux import (_count_cumulative, _inputs_for, deposition_rows, fill_diurnal,
-                      period_axes, period_mean, share_to_periods)
+                      no_hour_inside, period_axes, period_mean, share_to_periods)
 from .drypairs import apply_split, bracket_variables, combined_notes, split_pairs
 from .periods import hour_bounds
 
@@ -453,7 +453,9 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         flux_cov[..., k] = np.clip(fh / np.maximum(hours_p, 1), 0, 1)
         ratio[k] = r.get("quantity") == "mixing_ratio"
         if r.get("quantity") == "amount_density":
-            conc[..., k] = period_mean(r["site_index"], r["start"], r["end"], r["conc"], n_s, axes)
+            c_rows = np.where(no_hour_inside(r["start"], r["end"], r["a"], r["b"]), np.nan,
+                              r["conc"])               # no covered hours: not in the mean
+            conc[..., k] = period_mean(r["site_index"], r["start"], r["end"], c_rows, n_s, axes)
         c_valid, c_fill = rows["vd_cum"][sp]
         vd_cov[..., k] = (c_valid[:, :, pb] - c_valid[:, :, pa]) / hours_p
         filled_share[..., k] = covered_filled_share(r["site_index"], r["a"], r["b"], c_fill,

@@ -316,6 +316,35 @@ def deposition_rows(conc, quantity, site_index, starts, ends, times, vd, n_air=N
             "a": a, "b": b, "cs": cs, "cn": cn, "start": starts, "end": ends}
 
 
+def no_hour_inside(starts, ends, a, b):
+    """The samples shorter than an hour whose interval holds no hour's middle [bool].
+
+    Such a sample has no hour of Vd (:func:`~workbench.periods.hour_bounds`), so no
+    flux, and adds no covered hours either (:func:`share_to_periods`).
+
+    Parameters
+    ----------
+    starts, ends : ndarray of datetime64 (n,)
+    a, b : ndarray of int (n,)
+        Their hour bounds on the hour axis.
+    """
+    return (b <= a) & ((ends - starts) < np.timedelta64(1, "h"))
+
+
+def short_sample_notes(species, starts, ends, lines, times) -> list:
+    """The note of the samples of `species` with no hour inside (:func:`no_hour_inside`),
+    naming their file lines ([] for none)."""
+    from .io.ledger import compact_lines
+    a, b = hour_bounds(times, starts, ends)
+    none = no_hour_inside(starts, ends, a, b)
+    if not none.any():
+        return []
+    n = int(none.sum())
+    return [f"{species}: {n} air sample{'s' * (n > 1)} shorter than an hour "
+            f"hold{'s' * (n == 1)} no hour's middle (hh:30) ({compact_lines(lines[none])}): "
+            "no deposition, and not counted in the covered hours"]
+
+
 def _inputs_for(air, species, vd: xr.DataArray, met, options):
     """Rows used, their concentrations and the numpy arrays for one species."""
     used, notes = select_samplers(air, species, options.preferred_method)
@@ -331,6 +360,8 @@ def _inputs_for(air, species, vd: xr.DataArray, met, options):
         prof = np.asarray(options.diurnal_profile[species], float)
         prof = prof / prof.mean()
         weight = prof[pd.DatetimeIndex(times - _HALF_HOUR).hour.to_numpy()]  # UTC hours
+    notes = notes + short_sample_notes(species, air["start"].values[rows],
+                                       air["end"].values[rows], air["line"].values[rows], times)
     quantity = air[species].attrs.get("quantity", "amount_density")
     n_air = None
     if quantity == "mixing_ratio":
@@ -460,7 +491,8 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
     deposition : ndarray (S, R, P) [mol m-2], scaled to the whole period from the
         hours of the sampling periods that have a flux (NaN where none has one)
     coverage : ndarray (S, P) [1]
-        Share of the period's hours with a concentration.
+        Share of the period's hours with a concentration (a sample shorter than an
+        hour that holds no hour's middle adds none: :func:`no_hour_inside`).
     covered_hours : ndarray (S, P) [h]
     flux_hours : ndarray (S, R, P) [h]
         Hours of the period in sampling periods whose deposition is known (a
@@ -502,6 +534,10 @@ def share_to_periods(site_index, a, b, deposition, cs, n_sites, periods, times,
             part = part + (ov_real - ov)[:, :, None] * mean[:, None, :]
             whole = whole + ((total_real - inside)[:, None] * mean)[:, None, :]
             ov, inside = ov_real, total_real
+            # a sample shorter than an hour holding no hour's middle: no flux, no hours
+            none = no_hour_inside(starts, ends, a, b)
+            if none.any():
+                ov = np.where(none[:, None], 0.0, ov)
         with np.errstate(invalid="ignore", divide="ignore"):
             share = np.where(whole > 0, part / whole,
                              ov[:, :, None] / np.maximum(inside, 1)[:, None, None])

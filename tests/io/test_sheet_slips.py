@@ -226,7 +226,7 @@ def test_end_of_day_labels_are_the_next_day_with_a_note(tmp_path):
     assert str(ds["end"].values[0])[:16] == "2020-01-13T23:00"        # 00:00 local at +1 h
     assert str(ds["start"].values[1])[:16] == "2020-01-13T23:00"
     assert "p.csv: labels at 24:00 (end of day) in 'start', 'end' read as 00:00 of the next " \
-           "day" in led.notes, led.notes
+           "day: 2 rows (lines 2-3)" in led.notes, led.notes
 
 
 def test_end_of_day_labels_of_the_met(tmp_path, cat, met_reader):
@@ -241,8 +241,9 @@ def test_end_of_day_labels_of_the_met(tmp_path, cat, met_reader):
     assert sum("T24:00" in ln for ln in lines) == 2
     eod = met_reader(_write_met(tmp_path / "b.csv", "\n".join(lines) + "\n"), cat)
     assert eod[0]["temperature"].equals(plain[0]["temperature"])
+    at = [k + 1 for k, ln in enumerate(lines) if "T24:00" in ln]     # file lines, 1-based
     assert eod[1].notes[-1] == "b.csv: labels at 24:00 (end of day) in 'time' read as 00:00 " \
-                               "of the next day"
+                               f"of the next day: 2 rows (lines {at[0]}, {at[1]})"
     assert not [n for n in plain[1].notes if "24:00" in n]
 
 

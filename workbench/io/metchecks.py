@@ -44,6 +44,18 @@ KELVIN_MEDIAN_MIN = ZERO_CELSIUS + 150.0
 #: RADIATION_SLIP_HOURS and RADIATION_SLIP_SHARE of the site's hours, this also finds a
 #: cold site's degF record by its summer (common practice).
 FAHRENHEIT_MEDIAN_MIN = ZERO_CELSIUS + 40.0
+#: degC under a degF header: a site below CELSIUS_AS_F_LATITUDE [deg] and
+#: CELSIUS_AS_F_ELEVATION [m] whose record (read as degF) spans all twelve calendar months
+#: without one hour at or above CELSIUS_AS_F_MAX [K] (41 degF = 5 degC).  From memory: no
+#: lowland station equatorward of 50 deg stays below 5 degC for a whole year (the coldest,
+#: sub-Antarctic islands near 49 S, pass 10 degC in summer), while a degC record read as
+#: degF stays below 41 "degF" unless it reaches 41 degC.  Polar and mountain sites are not
+#: judged: a real degF record there may stay below 41 degF all year (common practice to
+#: leave them to the user).
+CELSIUS_AS_F_LATITUDE, CELSIUS_AS_F_ELEVATION = 50.0, 1000.0
+CELSIUS_AS_F_MAX = ZERO_CELSIUS + 5.0
+#: Temperature units read as degF (the header as typed).
+DEGF_UNITS = ("degF", "°F", "fahrenheit", "degree_Fahrenheit")
 #: Median wind speed of a site above which an m/s header may hold km/h [m s-1]: 10 m/s
 #: as the median is found only on exposed summits and polar coasts (from memory); the
 #: values are kept, the rows flagged (common practice).
@@ -159,6 +171,23 @@ def expected_station_pressure(elevation_m):
     return standard_pressure_at(np.asarray(elevation_m, float))
 
 
+def _celsius_as_f(temp, med, frame, t, per_site, mask, unit):
+    """Mask the temperature [K] of the sites whose degF record looks like degC (the rule
+    of :data:`CELSIUS_AS_F_MAX`); `med` is each row's site median [K]."""
+    lo, hi = RANGES["temperature"]                 # single bad hours: the hard range
+    t_k = np.where((med > KELVIN_MEDIAN_MIN) | (temp < lo) | (temp > hi), np.nan, temp)
+    ok = np.isfinite(t_k)
+    month = np.where(ok, pd.DatetimeIndex(t).month.to_numpy(), -1)
+    g = frame.assign(v=t_k, m=np.where(ok, month, np.nan)).groupby("site")
+    tmax = g["v"].transform("max").to_numpy()
+    months = g["m"].transform("nunique").to_numpy()
+    judged = ((np.abs(per_site("latitude")) < CELSIUS_AS_F_LATITUDE)
+              & (per_site("elevation_m") < CELSIUS_AS_F_ELEVATION))
+    mask("temperature", judged & (months == 12) & (tmax < CELSIUS_AS_F_MAX),
+         f"temperature looks like degC although the header says {unit}: no hour at or above "
+         "41 degF in a whole year at a site below 50 deg latitude and 1000 m (masked)")
+
+
 def run_row_checks(values, sites, t, catalogue, raw_units):
     """Run the per-row and per-site checks.
 
@@ -259,7 +288,9 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
             mask("temperature", med > KELVIN_MEDIAN_MIN,
                  f"temperature looks like kelvin although the header says {unit or 'degC'} "
                  "(masked)")
-            if unit not in ("degF", "°F", "fahrenheit", "degree_Fahrenheit"):
+            if unit in DEGF_UNITS:
+                _celsius_as_f(values["temperature"], med, frame, t, per_site, mask, unit)
+            else:
                 t_k = np.where(med > KELVIN_MEDIAN_MIN, np.nan, values["temperature"])
                 g = frame.assign(v=t_k, hot=t_k > RANGES["temperature"][1]).groupby("site")
                 n_hot = g["hot"].transform("sum").to_numpy()

@@ -107,6 +107,7 @@ class _TimeTexts:
         self.aware = np.empty(0, bool)
         self.zone = np.empty(0, dtype="timedelta64[ns]")    # the zoned texts' offsets
         self.end_of_day = False                              # a 24:00 label was read
+        self.eod = np.empty(0, bool)                         # each text is a 24:00 label
         self._lock = threading.Lock()
 
     def _lookup(self, cats):
@@ -126,7 +127,9 @@ class _TimeTexts:
                     if np.isnat(tv).any() or ((tv < YEARS[0]) | (tv >= YEARS[1])).any():
                         return None
                     parsed[sel] = tv
-                self.end_of_day = self.end_of_day or bool(end_of_day(text).any())
+                eod = end_of_day(text)
+                self.end_of_day = self.end_of_day or bool(eod.any())
+                self.eod = np.concatenate([self.eod, eod])
                 where[new] = len(self.text) + np.arange(int(new.sum()))
                 self.text = self.text.append(pd.Index(text.to_numpy(dtype=object)))
                 self.value = np.concatenate([self.value, parsed])
@@ -135,26 +138,28 @@ class _TimeTexts:
                 if aware.any():
                     zone[aware] = methours.zone_offsets(text[aware])
                 self.zone = np.concatenate([self.zone, zone])
-            return where, self.value, self.aware, self.zone
+            return where, self.value, self.aware, self.zone, self.eod
 
     def rows(self, cats, codes, off_ns, site_idx):
         """End-of-row times [ns] (UTC) of a chunk, the rows whose text carries a zone
         (None: none does) and the offset of each row's clock [ns] (its zone, else its
-        site's); None when a text is no valid time."""
+        site's), and the chunk's rows labelled 24:00 (indices; None: none is); None when
+        a text is no valid time."""
         got = self._lookup(pd.Index(np.asarray(cats, dtype=object)))
         if got is None:
             return None
-        where, value, aware, zone = got
+        where, value, aware, zone, eod = got
         k = where[codes]
+        eod_rows = np.flatnonzero(eod[k]) if eod[where].any() else None
         t = value[k]
         zoned = aware[k]
         clock = off_ns[site_idx]
         if not zoned.any():
-            return t - clock, None, clock
+            return t - clock, None, clock, eod_rows
         naive = ~zoned
         t[naive] = t[naive] - clock[naive]
         clock[zoned] = zone[k[zoned]]
-        return t, zoned, clock
+        return t, zoned, clock, eod_rows
 
 
 def read_met_csv_fast(path, catalogue, chunk_bytes=CHUNK_BYTES):
@@ -254,8 +259,9 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
             if got is not None and got is not _REPEAT:
                 got[1].notes[:0] = methours.move_notes(   # as the line reader: first
                     list(ids), catalogue.utc_offsets(ids), parser.moved, parser.kept)
-                if parser.times.end_of_day:                  # as the line reader: last
-                    got[1].notes.append(end_of_day_note(path.name, [raw_headers["time"]]))
+                if rows.end_of_day:                          # as the line reader: last
+                    got[1].notes.append(end_of_day_note(path.name, [raw_headers["time"]],
+                                                        np.concatenate(rows.end_of_day)))
             if got is not _REPEAT:
                 return got
         before = any(k[0] in ("site", "time", "hour") for k in firsts)   # checked first
@@ -336,7 +342,7 @@ class _ChunkParser:
         got = self.times.rows(tc.categories, tcodes, self.off_ns, site_idx)
         if got is None:
             return self._locate(chunk)
-        t, zoned, clock = got
+        t, zoned, clock, eod_rows = got
         if self.label == "start":
             t = t + self.hour
         measured = t
@@ -363,7 +369,7 @@ class _ChunkParser:
             got[name] = self.convert(v, self.units[name], name, self.variables[name][0])
         if words and _WORDS.search(chunk):
             return self._locate(chunk)
-        return site_idx, t, got, n, n_bytes, zoned, found
+        return site_idx, t, got, n, n_bytes, zoned, found, eod_rows
 
     def _frame(self, chunk, na):
         df = self._read(chunk, na, self.dtype)
@@ -433,7 +439,9 @@ def _parse(source, rows, parser, chunk_bytes, size_hint):
                 zoned = got.zoned
                 values = {k: np.full(n, np.nan) for k in rows.names}
             else:
-                site_idx, t, values, n, n_bytes, zoned, found = got
+                site_idx, t, values, n, n_bytes, zoned, found, eod_rows = got
+                if eod_rows is not None:
+                    rows.end_of_day.append(rows.line_of(seen + eod_rows))
             if zones_known:          # the zone check comes before the hours: every row
                 rows.zones.add(site_idx, zoned, seen)
             if found:

@@ -59,6 +59,8 @@ class Spill:
         self.zones = metlocate.ZoneTally(n_sites)
         #: column -> {missing-value text: [count, first (at most 5) rows of the file]}
         self.missing = {}
+        #: File lines of the rows labelled 24:00 (arrays, one per chunk holding any).
+        self.end_of_day = []
 
     def add_blanks(self, before):
         """Blank lines, each given by the number of rows of the file above it."""

@@ -456,6 +456,8 @@ def read_air(path, catalogue, reference_state=None):
     groups = np.char.add(np.char.add(sites.astype(str), "\x1f"), samplers.astype(str))
     conc = _concentrations(tab, cols, ("amount_density", "mixing_ratio"), parts, n, groups,
                            zero_ok=repeat)                     # a dropped repeat
+    check_shifted(tab, {cols[sp]: ~np.isnan(v) | c for sp, (v, c, _, _) in conc.items()},
+                  rows=~repeat, groups=groups, what="concentration")
     ref_text = tab.meta.get("reference_state", reference_state)
     needs_ref = any(k == "amount_density" for *_, k in conc.values())
     ref = None

@@ -20,6 +20,7 @@ import pandas as pd
 
 from ..errors import InputError, suggest
 from ..units import Header, parse_header
+from .ledger import compact_lines
 
 _OFFSET = re.compile(r"[T ]\d\d.*(?:Z|[+-]\d\d(?::?\d\d)?)$")
 
@@ -155,13 +156,27 @@ def parse_iso(text: pd.Series, utc: bool) -> np.ndarray:
     return out
 
 
-def end_of_day_note(file_name: str, columns) -> str:
+def end_of_day_note(file_name: str, columns, lines) -> str:
     """The ledger note of the columns whose 24:00 labels were read as the next day's 00:00
-    ("" for none)."""
+    ("" for none), with the count of the rows and their lines (:func:`.ledger.compact_lines`).
+
+    Parameters
+    ----------
+    file_name : str
+    columns : list of str
+        Header names of the time columns holding a 24:00 label.
+    lines : array of int
+        File lines (1-based) of the rows with such a label, in any of `columns` [1].
+
+    >>> end_of_day_note("p.csv", ["start", "end"], [4, 5, 6, 9])
+    "p.csv: labels at 24:00 (end of day) in 'start', 'end' read as 00:00 of the next day: 4 rows (lines 4-6, 9)"
+    """
     if not columns:
         return ""
+    v = np.unique(np.asarray(lines, dtype=np.int64))
     return (f"{file_name}: labels at 24:00 (end of day) in "
-            f"{', '.join(repr(c) for c in columns)} read as 00:00 of the next day")
+            f"{', '.join(repr(c) for c in columns)} read as 00:00 of the next day: "
+            f"{len(v)} row{'s' * (len(v) != 1)} ({compact_lines(v)})")
 
 
 @dataclass
@@ -195,6 +210,8 @@ class RawTable:
     zoned: dict = field(default_factory=dict)
     #: Time columns with a 24:00 label (read as 00:00 of the next day), in order.
     end_of_day: list = field(default_factory=list)
+    #: Row indices (into :attr:`lines`) holding a 24:00 label in any time column.
+    end_of_day_rows: list = field(default_factory=list)
 
     # ------------------------------------------------------------------ reading
     @classmethod
@@ -389,8 +406,10 @@ class RawTable:
                              expected="an ISO 8601 timestamp such as 2020-01-09T14:00")
         aware = s.str.contains(_OFFSET).to_numpy()
         self.zoned[name] = aware
-        if end_of_day(s).any() and name not in self.end_of_day:
+        eod = end_of_day(s)
+        if eod.any() and name not in self.end_of_day:
             self.end_of_day.append(name)
+            self.end_of_day_rows.append(np.flatnonzero(eod))
         out = np.empty(len(s), dtype="datetime64[ns]")
         if aware.any():
             tv = parse_iso(s[aware], utc=True)
@@ -445,8 +464,11 @@ class RawTable:
 
     def end_of_day_note(self) -> str:
         """The ledger note of 24:00 labels read as the next day's 00:00 ("" for none)."""
+        if not self.end_of_day:
+            return ""
+        rows = np.concatenate(self.end_of_day_rows)
         return end_of_day_note(self.path.name, [self.raw_headers.get(c, c)
-                                                for c in self.end_of_day])
+                                                for c in self.end_of_day], self.lines[rows])
 
     def unknown_columns(self, known) -> list[str]:
         return [self.raw_headers[n] for n in self.headers if n not in known]
