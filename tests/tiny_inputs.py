@@ -25,6 +25,24 @@ receptors = ["{receptor}"]
 """
 
 
+def grass_sites(rows, elevation_m=30.0) -> str:
+    """sites.toml text of invented grass sites, one per (id, name, latitude [deg],
+    longitude [deg], utc_offset_h [h]) row."""
+    return "\n".join(f"""\
+[[site]]
+id = "{i}"
+name = "{n}"
+latitude = {la}
+longitude = {lo}
+elevation_m = {elevation_m}
+land_use = "grass"
+canopy_height_m = 0.1
+wind_height_m = 10.0
+sampler_height_m = 3.0
+utc_offset_h = {off}
+""" for i, n, la, lo, off in rows)
+
+
 def located_error(fn, path, cat) -> str:
     """The message of the InputError that ``fn(path, cat)`` raises; it starts with the
     file and its line."""
@@ -76,10 +94,7 @@ beta,2020-01-07T09:00,2020-01-14T09:00,fp2,3.0,0.3,,2.0,,
 
 
 def met_text(n_hours=48, site="alpha", start="2020-01-07T01:00", rh_unit="%", rh_scale=1.0):
-    import numpy as np
-    import pandas as pd
     t = pd.date_range(start, periods=n_hours, freq="h")
-    hours = np.arange(n_hours)
     rows = ["# time_label: end",
             f"site,time,wind_speed [m/s],temperature [degC],relative_humidity [{rh_unit}],"
             "solar_radiation [W/m2],precipitation [mm],pressure [hPa],cloud_cover [1]"]

@@ -93,6 +93,11 @@ def suggest(word: str, choices) -> str:
     return f" (did you mean {close[0]!r}?)" if close else ""
 
 
+#: An unsigned number as typed (digits, decimals, exponent): the pattern that the
+#: readers' hints on numbers written with a unit share.
+NUMBER_TEXT = r"(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?"
+
+
 #: How a TOML value type reads in a message.
 _TYPE_WORDS = {int: "a whole number", float: "a number", str: "text in quotes",
                list: "a list [...]", dict: "a table", bool: "true or false"}

@@ -108,6 +108,19 @@ def parse_unit(text: str):
     return unit, is_eq
 
 
+def written_in(unit_text, target: str) -> bool:
+    """Whether a header's unit is `target`, as pint reads both (any spelling: ``degF``,
+    ``°F``, ``fahrenheit``; ``m/s``, ``m s-1``); False for an unknown unit.
+
+    >>> written_in("°F", "degF"), written_in("m s-1", "m/s"), written_in("km/h", "m/s")
+    (True, True, False)
+    """
+    try:
+        return parse_unit(str(unit_text))[0] == ureg.Unit(target)
+    except ValueError:
+        return False
+
+
 def convert_plain(values, unit_text: str, target: str):
     """Convert plain physical values (no species) from `unit_text` to `target`.
 

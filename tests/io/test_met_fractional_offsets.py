@@ -26,25 +26,14 @@ from workbench.io.met import read_met
 from workbench.io.methours import shift_minutes
 from workbench.io.sites import read_sites
 
+from tiny_inputs import grass_sites
+
 _spec = importlib.util.spec_from_file_location(        # its check of the two readers
     "_metfast_cases", Path(__file__).with_name("test_metfast.py"))
 _cases = importlib.util.module_from_spec(_spec)
 _spec.loader.exec_module(_cases)
 assert_same = _cases.assert_same
 
-_SITE = """\
-[[site]]
-id = "{id}"
-name = "{name}"
-latitude = {lat}
-longitude = {lon}
-elevation_m = 30.0
-land_use = "grass"
-canopy_height_m = 0.1
-wind_height_m = 10.0
-sampler_height_m = 3.0
-utc_offset_h = {off}
-"""
 #: Invented sites at real offsets (coordinates in the offsets' longitudes).
 SITES = [("kestrel", "Kestrel Test Plain", -12.5, 130.8, 9.5),
          ("marten", "Marten Test Terrace", 27.7, 85.3, 5.75),
@@ -56,8 +45,7 @@ HEAD = ("site,time,wind_speed [m/s],temperature [degC],relative_humidity [%],"
 
 @pytest.fixture()
 def cat(tmp_path):
-    (tmp_path / "sites.toml").write_text("\n".join(
-        _SITE.format(id=i, name=n, lat=la, lon=lo, off=o) for i, n, la, lo, o in SITES))
+    (tmp_path / "sites.toml").write_text(grass_sites(SITES, elevation_m=30.0))
     return read_sites(tmp_path / "sites.toml")
 
 

@@ -39,6 +39,8 @@ from workbench.drydep.canopy import cos_zenith                          # noqa: 
 from workbench.io.metchecks import solar_elevation_deg                  # noqa: E402
 from workbench.surface.solar import declination, equation_of_time      # noqa: E402
 
+from tiny_inputs import grass_sites                                    # noqa: E402
+
 #: Spencer (1971) against SPA: largest and RMS zenith error [degree] (measured, see above).
 MAX_ZENITH_ERROR = 0.6
 RMS_ZENITH_ERROR = 0.4
@@ -132,19 +134,6 @@ def test_spencer_series_as_pvlib_implements_it():
 
 # --- met time labels through the reader --------------------------------------------------
 
-_SITES = """\
-[[site]]
-id = "{id}"
-name = "{name}"
-latitude = {lat}
-longitude = {lon}
-elevation_m = 50.0
-land_use = "grass"
-canopy_height_m = 0.1
-wind_height_m = 10.0
-sampler_height_m = 3.0
-utc_offset_h = {off}
-"""
 #: Invented sites with offsets west and east of Greenwich and in the southern
 #: hemisphere.  (A half-hour offset such as 9.5 h puts naive hour-ending labels on the
 #: half UTC hour; the met readers move them to the nearest whole UTC hour end, and the
@@ -184,8 +173,7 @@ def test_reader_labels_give_the_sun_of_the_utc_instant(tmp_path, zoned, label):
     # (plus half an hour for a file that declares hour-beginning labels)
     from workbench.io.met import read_met
     from workbench.io.sites import read_sites
-    (tmp_path / "sites.toml").write_text("\n".join(
-        _SITES.format(id=i, name=n, lat=la, lon=lo, off=off) for i, n, la, lo, off in LABEL_SITES))
+    (tmp_path / "sites.toml").write_text(grass_sites(LABEL_SITES, elevation_m=50.0))
     cat = read_sites(tmp_path / "sites.toml")
     met, _ = read_met(_met_csv(tmp_path / "met.csv", LABEL_SITES, zoned, label), cat)
     raw = pd.read_csv(tmp_path / "met.csv", comment="#")

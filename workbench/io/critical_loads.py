@@ -12,7 +12,7 @@ from __future__ import annotations
 import math
 import re
 
-from ..errors import suggest
+from ..errors import NUMBER_TEXT, suggest
 from ..species import EQ_PER_MOL_ELEMENT, element_molar_mass
 
 CRITICAL_LOAD_KEYS = ("cl_max_s", "cl_min_n", "cl_max_n", "cl_nut_n")
@@ -62,7 +62,7 @@ def _doubtful_value(key, v, where):
             f"eq/ha/yr, commonly hundreds to a few thousand; if the value was {readings}")
 
 
-_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+_NUMBER = re.compile(rf"^\s*([-+]?{NUMBER_TEXT})\s*(.*?)\s*$")
 
 
 def _bad_value(key, v):

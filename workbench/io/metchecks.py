@@ -13,6 +13,7 @@ import pandas as pd
 from ..constants import STANDARD_PRESSURE, ZERO_CELSIUS
 from ..surface.air import standard_pressure_at
 from ..surface.solar import solar_elevation_sine, time_parts
+from ..units import written_in
 from .common import join_reasons
 from .metvars import MET_VARIABLES, convert_met
 from .plausible import SENTINELS
@@ -54,8 +55,6 @@ FAHRENHEIT_MEDIAN_MIN = ZERO_CELSIUS + 40.0
 #: leave them to the user).
 CELSIUS_AS_F_LATITUDE, CELSIUS_AS_F_ELEVATION = 50.0, 1000.0
 CELSIUS_AS_F_MAX = ZERO_CELSIUS + 5.0
-#: Temperature units read as degF (the header as typed).
-DEGF_UNITS = ("degF", "°F", "fahrenheit", "degree_Fahrenheit")
 #: Median wind speed of a site above which an m/s header may hold km/h [m s-1]: 10 m/s
 #: as the median is found only on exposed summits and polar coasts (from memory); the
 #: values are kept, the rows flagged (common practice).
@@ -282,13 +281,13 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
     # temperature in kelvin under a degC (or degF) header: a median above 150 degC
     if "temperature" in values:
         unit = str(raw_units.get("temperature", "")).strip()
-        if unit not in ("K", "kelvin"):
+        if not written_in(unit, "K"):
             med = frame.assign(v=values["temperature"]).groupby("site")["v"] \
                 .transform("median").to_numpy()
             mask("temperature", med > KELVIN_MEDIAN_MIN,
                  f"temperature looks like kelvin although the header says {unit or 'degC'} "
                  "(masked)")
-            if unit in DEGF_UNITS:
+            if written_in(unit, "degF"):
                 _celsius_as_f(values["temperature"], med, frame, t, per_site, mask, unit)
             else:
                 t_k = np.where(med > KELVIN_MEDIAN_MIN, np.nan, values["temperature"])
@@ -303,8 +302,7 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
                      f"temperature looks like degF although the header says {unit or 'degC'} "
                      "(masked)")
     # wind in km/h under an m/s header: kept, flagged
-    if "wind_speed" in values and \
-            str(raw_units.get("wind_speed", "")).replace(" ", "") in ("m/s", "m/s1", "ms-1", "m*s-1"):
+    if "wind_speed" in values and written_in(raw_units.get("wind_speed", ""), "m/s"):
         g = frame.assign(v=values["wind_speed"]).groupby("site")["v"]
         med_u = g.transform("median").to_numpy()
         flag((med_u > KMH_MEDIAN_MIN) & (g.transform("count").to_numpy() >= MEDIAN_MIN_HOURS),
@@ -375,7 +373,8 @@ def gauge_comparison(met, samples, low=0.5, high=2.0, min_depth_mm=2.0):
     -------
     pandas.DataFrame
         ``line, site, start, end, gauge_depth, met_depth, met_hours_missing, ratio,
-        suspicious`` for every sample of a site that has met.
+        judged`` (every met hour present and a depth of at least `min_depth_mm`),
+        ``suspicious`` for every sample of a site that has met.
     """
     sites = samples["site"].values.astype(str)
     have = np.isin(sites, met["site"].values.astype(str))
@@ -394,8 +393,8 @@ def gauge_comparison(met, samples, low=0.5, high=2.0, min_depth_mm=2.0):
         out["ratio"] = out["met_depth"] / out["gauge_depth"]
     from ..wet.qa import at_least, outside_band      # on a bound in the decimals typed:
     deepest = np.maximum(out["gauge_depth"], out["met_depth"]).to_numpy()   # judged, inside
-    judged = (out["met_hours_missing"] == 0).to_numpy() & at_least(deepest, min_depth_mm)
-    out["suspicious"] = judged & outside_band(out["ratio"].to_numpy(), low, high)
+    out["judged"] = (out["met_hours_missing"] == 0).to_numpy() & at_least(deepest, min_depth_mm)
+    out["suspicious"] = out["judged"].to_numpy() & outside_band(out["ratio"].to_numpy(), low, high)
     return out
 
 
@@ -428,8 +427,7 @@ def gauge_slip_notes(gc, file_name: str) -> list[str]:
     from ..wet.qa import outside_band
     if gc is None or gc.empty:
         return []
-    judged = gc[np.isfinite(gc["ratio"]) & (gc["ratio"] > 0) & (gc["met_hours_missing"] == 0)
-                & (np.maximum(gc["gauge_depth"], gc["met_depth"]) >= 2.0)]
+    judged = gc[gc["judged"] & np.isfinite(gc["ratio"]) & (gc["ratio"] > 0)]
     notes = []
     for site, g in judged.groupby("site", sort=False):
         n_bad = int(g["suspicious"].sum())

@@ -69,9 +69,8 @@ def check_spellings(tab, sites, samplers, start, end, rows=None):
 
 
 def _key(text: str) -> str:
-    """The id without case, blanks, dashes, dots, underscores and look-alike letters."""
-    out = "".join(ch for ch in text if ch not in " -_./")
-    return out.translate(_LOOKALIKE).lower()
+    """:func:`_spelling` with look-alike letters read as their digits."""
+    return _spelling(text.translate(_LOOKALIKE))
 
 
 def _one_edit(a: str, b: str) -> bool:

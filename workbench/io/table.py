@@ -18,7 +18,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from ..errors import InputError, suggest
+from ..errors import NUMBER_TEXT, InputError, suggest
 from ..units import Header, parse_header
 from .ledger import compact_lines
 
@@ -47,7 +47,7 @@ _BLANK = re.compile(r"[^\S\n]")
 FORMULA_ERRORS = ("#div/0!", "#value!", "#ref!", "#num!", "#name?", "#null!", "#calc!",
                   "#spill!", "#getting_data", "#error!", "err:502", "err:503", "err:504")
 #: A number followed by a unit in one cell (``12 mm``, ``3.1ug/m3``, ``5 %``).
-_NUMBER_UNIT = re.compile(r"[-+<]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?\s*"
+_NUMBER_UNIT = re.compile(rf"[-+<]?{NUMBER_TEXT}\s*"
                           r"[A-Za-z%\u00b5\u00b0][\w/%\u00b5\u00b0.\-]*")
 #: Numbers with grouped thousands: ``1,234.5``, ``1 234.5``, ``1.234,5``, ``1'234``.
 _THOUSANDS = re.compile(r"[-+]?\d{1,3}(?:(?:,\d{3})+(?:\.\d+)?|(?:[ '\u00a0\u202f]\d{3})+"
