@@ -111,6 +111,47 @@ def _climatology(screened, opt, met, site_idx, n_site, species, mult):
     return by_season, whole
 
 
+def covered_share(table, site_idx, start, end, mask, n_site, origin, span):
+    """Share of each (sample, period) piece's hours covered by the samples in `mask` [1].
+
+    Parameters
+    ----------
+    table : pandas.DataFrame
+        Pieces of :func:`sample_weights` (``interval``, ``start``, ``end``, ``hours`` [h]).
+    site_idx : ndarray of int
+        Site of each sample.
+    start, end : ndarray of datetime64
+        Sample intervals. [UTC]
+    mask : ndarray of bool
+        Samples that cover (e.g. the used ones, or those with a value of one ion).
+    n_site : int
+    origin, span
+        Hour axis of :class:`~workbench.wet.pwm.CoverageProfile` [h].
+
+    Returns
+    -------
+    ndarray
+        1 for a piece of a sample in `mask`; for another sample the share of its piece
+        overlapped by samples in `mask` (a collocated sampler), 0 normally.  A piece of
+        no length takes 1 or 0 by `mask`.
+
+    Notes
+    -----
+    With :math:`h_{ip}` the hours of piece *ip* and :math:`c_{ip}` those of them covered
+    by a sample in `mask` at the same site, the share is :math:`c_{ip}/h_{ip}` (uniform
+    rain within a sample, as the share-of-hours split of section 4).
+    """
+    prof = CoverageProfile(site_idx[mask], start[mask], end[mask], n_site, origin, span)
+    i = table["interval"].values
+    length = table["hours"].values.astype(float)
+    got = prof.covered_hours(site_idx[i], table["start"].values.astype("datetime64[ns]"),
+                             table["end"].values.astype("datetime64[ns]"))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        share = np.where(length > 0, got / np.where(length > 0, length, 1.0),
+                         mask[i].astype(float))
+    return np.clip(share, 0.0, 1.0)
+
+
 def sample_weights(screened: xr.Dataset, ptable: pd.DataFrame, options: WetOptions,
                    met: xr.Dataset | None = None):
     """The (sample, period) pieces of the screened samples and their precipitation weights.
@@ -225,7 +266,13 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     species = _species_list(screened)
     status = screened.variables["status"].values.astype(str)
     used_s = screened.variables["used"].values.astype(bool)
-    covering = used_s | (status == "dry")
+    # time coverage: used and dry samples, and trace samples with a known gauge depth
+    # (their rain is measured and counts against the valid-chemistry share instead;
+    # docs/methods_wet.md section 7)
+    trace = (screened.variables["qa_flag_trace"].values.astype(bool)
+             if "qa_flag_trace" in screened.variables else np.zeros(len(status), bool))
+    covering = used_s | (status == "dry") | (trace & screened.variables["gauge_valid"].values
+                                             .astype(bool))
 
     s_all = screened.variables["start"].values.astype("datetime64[ns]")
     e_all = screened.variables["end"].values.astype("datetime64[ns]")
@@ -250,7 +297,15 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     gauge_hours = gauge_prof.covered_hours(gs, gstart, ge).reshape(shape)
     cover_hours = cover_prof.covered_hours(gs, gstart, ge).reshape(shape)
     precip = np.where(gauge_hours > 0, per(weight), np.nan)
-    precip_valid = np.where(gauge_hours > 0, per(np.where(used, weight, 0.0)), np.nan)
+
+    def valid_precip(mask):
+        # rain of the period whose chemistry is known: each gauge-valid piece by the
+        # share of its hours covered by samples in `mask` (itself, or a collocated
+        # partner; section 7) [mm]
+        return per(weight * covered_share(table, site_idx, s_all, e_all, mask, n_site,
+                                          origin, span))
+
+    precip_valid = np.where(gauge_hours > 0, valid_precip(used_s), np.nan)
     counts = {f"n_{s}": per((status[i] == s).astype(float)).astype(int) for s in STATUSES}
     n_samples = per(np.ones(len(i))).astype(int)
     n_valid = counts["n_used"] + counts["n_flagged"]
@@ -383,8 +438,9 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     var("filled", filled, "", "PWM filled with the multi-year seasonal PWM")
     # --- per-ion completeness -----------------------------------------------------------
     ions = [sp for sp in species]
-    frac_ion = np.stack([np.where(precip > 0, den[sp].reshape(shape) / np.where(precip > 0, precip, 1.0),
-                                  np.nan) for sp in ions], axis=-1)
+    frac_ion = np.stack([np.where(precip > 0, valid_precip(
+        used_s & np.isfinite(np.asarray(screened.variables[sp].values, dtype=float)))
+        / np.where(precip > 0, precip, 1.0), np.nan) for sp in ions], axis=-1)
     nval_ion, ncen_ion = [], []
     for sp in ions:
         c = np.asarray(screened.variables[sp].values, dtype=float)[i]
