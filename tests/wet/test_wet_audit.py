@@ -287,6 +287,24 @@ def test_collocated_samplers_average_their_depths():
     assert c["status"].item() == "complete"
 
 
+def test_a_partly_collocated_sampler_averages_only_where_both_ran():
+    # A weekly sampler (Mon 1 - Mon 8 March, 14 mm, SO4 20 umol/L) beside a daily one
+    # that ran on the first three days only (2 mm a day, SO4 40 umol/L). With rain
+    # uniform within the weekly sample (2 mm a day), the gauges are averaged where both
+    # ran and the weekly one stands alone on the other four days:
+    #   weekly weight 14 x (3/7 x 1/2 + 4/7 x 1) = 11 mm, daily 3 x 2 / 2 = 3 mm,
+    #   P = 14 mm (both gauges agree on 2 mm a day, so the week has 14 mm).
+    # (The mean multiplicity 10/7 over the week gave 14 / (10/7) + 3 = 12.8 mm.)
+    rows = [dict(start="2021-03-01", end="2021-03-08", gauge_depth=14.0, SO4=20,
+                 sampler_id="wk")]
+    rows += [dict(start=f"2021-03-0{d}", end=f"2021-03-0{d + 1}", gauge_depth=2.0, SO4=40,
+                  sampler_id="day") for d in (1, 2, 3)]
+    _, wet = _one(rows, [("2021-03-01", "2021-03-08", "wk")])
+    c = _cell(wet, "wk")
+    assert c["precipitation"].item() == pytest.approx(14.0)
+    assert c["pwm_SO4"].item() == pytest.approx((11 * 20 + 3 * 40) / 14 * 1e-3)
+
+
 def test_a_collocated_partner_with_valid_chemistry_covers_a_contaminated_sample():
     # the same week, sampler b contaminated: the week's chemistry is still known from
     # sampler a, so its rain has valid chemistry and the week is covered; the rain is

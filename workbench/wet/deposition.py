@@ -90,15 +90,16 @@ def _weighted(table, screened, weight_all, used, flat, n_flat, species):
     return pwm, num, den
 
 
-def _climatology(screened, opt, met, site_idx, n_site, species, mult):
+def _climatology(screened, opt, met, site_idx, n_site, species, gauge_prof):
     """Multi-year PWM per site and season (and over the whole record) [mol m-3]."""
     t0, t1 = screened.variables["start"].values.min(), screened.variables["end"].values.max()
     seasons = _periods.make_periods(t0, t1, "season")
     table = _split(screened, seasons, opt, met)
     i = table["interval"].values
-    depth = screened.variables["gauge_depth_used"].values[i]
     used = screened.variables["used"].values.astype(bool)[i]
-    weight = np.where(used, depth * table["share"].values / mult[i], 0.0)
+    weight = np.where(used, _piece_weights(
+        table, screened.variables["gauge_valid"].values.astype(bool),
+        screened.variables["gauge_depth_used"].values.astype(float), gauge_prof, site_idx), 0.0)
     s_of = pd.Index(_periods.SEASON_NAMES).get_indexer(seasons["season"].values)
     shape = (n_site, _N_SEASONS)
     flat = site_idx[i] * _N_SEASONS + s_of[table["period"].values]
@@ -172,7 +173,9 @@ def sample_weights(screened: xr.Dataset, ptable: pd.DataFrame, options: WetOptio
         One row per piece: ``interval`` (sample index), ``period`` (row of `ptable`),
         ``share`` [1] of the sample in the period.
     weight : ndarray
-        :math:`w_{ip} = P_i f_{ip} / m_i` [mm] per piece (0 where the gauge is not valid).
+        :math:`w_{ip} = P_i f_{ip} \\langle 1/m \\rangle_{ip}` [mm] per piece (0 where the
+        gauge is not valid), with :math:`\\langle 1/m \\rangle_{ip}` the mean over the piece
+        of one over the number of gauge-valid samples running at each instant.
     gauge_profile : CoverageProfile
         Hours covered by gauge-valid samples.
     origin : numpy.datetime64
@@ -196,9 +199,18 @@ def sample_weights(screened: xr.Dataset, ptable: pd.DataFrame, options: WetOptio
     mult = np.where(gauge_ok, gauge_prof.mean_multiplicity(site_idx, s_all, e_all), 1.0)
     mult = np.where(mult >= 1.0, mult, 1.0)
     table = _split(screened, ptable, options, met)
-    i = table["interval"].values
-    weight = np.where(gauge_ok[i], depth[i] * table["share"].values / mult[i], 0.0)
+    weight = _piece_weights(table, gauge_ok, depth, gauge_prof, site_idx)
     return table, weight, gauge_prof, origin, span, mult
+
+
+def _piece_weights(table, gauge_ok, depth, gauge_prof, site_idx):
+    """w_ip = P_i f_ip <1/m>_ip [mm]: the depth, its share in the period and the mean of
+    1/m over the piece (collocated samplers averaged where they ran together)."""
+    i = table["interval"].values
+    inv = gauge_prof.mean_inverse_multiplicity(
+        site_idx[i], table["start"].values.astype("datetime64[ns]"),
+        table["end"].values.astype("datetime64[ns]"))
+    return np.where(gauge_ok[i], depth[i] * table["share"].values * inv, 0.0)
 
 
 def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptions(),
@@ -242,10 +254,11 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     Notes
     -----
     For sample *i* with gauge depth :math:`P_i`, share :math:`f_{ip}` of it in
-    period *p* (share of hours, or of hourly precipitation) and mean multiplicity
-    :math:`m_i` (number of collocated samples covering it, normally 1):
+    period *p* (share of hours, or of hourly precipitation) and the mean over that part
+    of :math:`1/m(t)`, with :math:`m(t)` the number of gauge-valid samples of the site
+    running at instant *t* (collocated samplers; normally 1):
 
-    .. math:: w_{ip} = P_i f_{ip} / m_i, \\quad
+    .. math:: w_{ip} = P_i f_{ip} \\langle 1/m \\rangle_{ip}, \\quad
               P_p = \\sum_i w_{ip}, \\quad
               \\bar C_p = \\frac{\\sum_{i\\,valid} w_{ip} C_i}{\\sum_{i\\,valid} w_{ip}},
               \\quad D_p = \\bar C_p P_p
@@ -344,7 +357,8 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     filled = np.zeros(shape, bool)
     fill_n = 0
     if opt.period_fill == "seasonal" and failed.any():
-        by_season, whole = _climatology(screened, opt, met, site_idx, n_site, species, mult)
+        by_season, whole = _climatology(screened, opt, met, site_idx, n_site, species,
+                                        gauge_prof)
         cat = pd.Index(_periods.SEASON_NAMES).get_indexer(ptable["season"].values)
         has_season = ptable["kind"].isin(["month", "season"]).values & (cat >= 0)
         for sp in species:

@@ -141,6 +141,8 @@ class CoverageProfile:
         self.bounds = bounds
         self.cum_m = np.concatenate([[0.0], np.cumsum(m * seg)])
         self.cum_u = np.concatenate([[0.0], np.cumsum((m > 0) * seg)])
+        inv = np.where(m > 0, 1.0 / np.maximum(m, 1), 0.0)
+        self.cum_r = np.concatenate([[0.0], np.cumsum(inv * seg)])
 
     def _at(self, site_idx, times, cum):
         t, _ = _site_axis(site_idx, times, times, self.origin)
@@ -160,6 +162,31 @@ class CoverageProfile:
         length = e - s
         with np.errstate(invalid="ignore", divide="ignore"):
             return np.where(length > 0, (b - a) / np.where(length > 0, length, 1.0), 1.0)
+
+    def mean_inverse_multiplicity(self, site_idx, start, end):
+        """Mean of 1/m over ``[start, end)`` [1] (1 for zero length or where no interval covers).
+
+        The share of an interval's rain that is its own when the collocated samplers
+        covering each instant are averaged: 1/2 where two ran, 1 where it ran alone.
+
+        Notes
+        -----
+        .. math:: \\overline{m^{-1}} = \\frac{1}{e - s}\\int_s^e \\frac{[m(t) > 0]}{m(t)}\\,dt
+
+        >>> p = CoverageProfile(np.zeros(2, int), np.array(["2021-01-01", "2021-01-01"],
+        ...     dtype="datetime64[ns]"), np.array(["2021-01-08", "2021-01-04"],
+        ...     dtype="datetime64[ns]"), 1, np.datetime64("2021-01-01", "ns"), 168.0)
+        >>> float(p.mean_inverse_multiplicity(np.array([0]), np.array(["2021-01-01"],
+        ...     dtype="datetime64[ns]"), np.array(["2021-01-08"], dtype="datetime64[ns]"))[0])
+        0.7857142857142857
+        """
+        a = self._at(site_idx, start, self.cum_r)
+        b = self._at(site_idx, end, self.cum_r)
+        s, e = _site_axis(site_idx, start, end, self.origin)
+        length = e - s
+        with np.errstate(invalid="ignore", divide="ignore"):
+            out = np.where(length > 0, (b - a) / np.where(length > 0, length, 1.0), 1.0)
+        return np.where(out > 0, out, 1.0)
 
     def covered_hours(self, site_idx, start, end):
         """Hours of ``[start, end)`` covered by at least one interval [h].
