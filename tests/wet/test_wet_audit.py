@@ -413,3 +413,45 @@ def test_a_wet_period_needs_one_valid_sample():
     c = _cell(wet, "wk")
     assert "too few valid samples" in c["completeness_reasons"].item()
     assert np.isnan(c["dep_SO4"].item())
+
+
+# ----------------------------------------------------------------- fills (sections 4, 7)
+def test_a_failed_month_filled_with_the_seasonal_pwm_of_the_record():
+    # Dec 2020: one sample, 30 mm, SO4 20; Jan 2021: 1-20 Jan, 20 mm, SO4 50, then no row
+    # (coverage 19/31 < 0.9); Feb 2021: one sample, 10 mm, SO4 80 umol/L.
+    # period_fill = "seasonal": January takes the winter PWM of the record,
+    # (30 x 20 + 20 x 50 + 10 x 80) / 60 = 40 umol/L, times its own 20 mm.
+    rows = [dict(start="2020-12-01", end="2021-01-01", gauge_depth=30.0, SO4=20),
+            dict(start="2021-01-01", end="2021-01-20", gauge_depth=20.0, SO4=50),
+            dict(start="2021-02-01", end="2021-03-01", gauge_depth=10.0, SO4=80)]
+    per = P.make_periods("2020-12-01", "2021-03-01", "month")
+    for fill, jan_pwm, jan_status in (("none", 50.0, "flagged"), ("seasonal", 40.0, "filled")):
+        o = WetOptions(period_fill=fill)
+        wet = wet_deposition(screen(make_samples(rows, ions=IONS), o), per, o)
+        jan = _cell(wet, "2021-01")
+        assert jan["coverage_fraction"].item() == pytest.approx(19 / 31)
+        assert jan["pwm_SO4"].item() == pytest.approx(jan_pwm * 1e-3)
+        assert jan["dep_SO4"].item() == pytest.approx(jan_pwm * 1e-3 * 20e-3)
+        assert jan["status"].item() == jan_status
+        assert _cell(wet, "2020-12")["pwm_SO4"].item() == pytest.approx(20e-3)   # untouched
+
+
+def test_a_sample_across_a_month_end_shared_by_its_hourly_rain():
+    # 31 Mar 00:00 - 7 Apr 2021 00:00, 10 mm; the hourly gauge of the met record had 3 mm
+    # in the first three hours of 31 March and 7 mm in the first seven of 1 April.
+    # straddle = "hours": March gets 24/168 of 10 mm = 1.43 mm; "met": 3/10 of it = 3 mm.
+    from wet.wet_samples import make_met
+
+    def rain(t):
+        first = (t > pd.Timestamp("2021-03-31")) & (t <= pd.Timestamp("2021-03-31 03:00"))
+        second = (t > pd.Timestamp("2021-04-01")) & (t <= pd.Timestamp("2021-04-01 07:00"))
+        return (first | second).astype(float)
+
+    met = make_met(["A"], "2021-03-20", "2021-04-15", precipitation=rain)
+    rows = [dict(start="2021-03-31", end="2021-04-07", gauge_depth=10.0, SO4=30)]
+    per = P.make_periods("2021-03-01", "2021-05-01", "month")
+    for how, march in (("hours", 10 * 24 / 168), ("met", 3.0)):
+        o = WetOptions(straddle=how)
+        wet = wet_deposition(screen(make_samples(rows, ions=IONS), o), per, o, met=met)
+        assert _cell(wet, "2021-03")["precipitation"].item() == pytest.approx(march)
+        assert _cell(wet, "2021-04")["precipitation"].item() == pytest.approx(10 - march)
