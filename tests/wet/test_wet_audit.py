@@ -455,3 +455,51 @@ def test_a_sample_across_a_month_end_shared_by_its_hourly_rain():
         wet = wet_deposition(screen(make_samples(rows, ions=IONS), o), per, o, met=met)
         assert _cell(wet, "2021-03")["precipitation"].item() == pytest.approx(march)
         assert _cell(wet, "2021-04")["precipitation"].item() == pytest.approx(10 - march)
+
+
+# ----------------------------------------------------------------- the demo file by hand
+@pytest.mark.parametrize("site, year", [("farm", 2018), ("fell", 2020)])
+def test_a_demo_year_recomputed_by_hand_from_the_raw_file(site, year):
+    # From demo_data/precipitation.csv read with pandas: mg/L -> umol/L by the molar
+    # masses above (NO3 written as N, SO4 as the ion, Na), local labels -> UTC with the
+    # site's utc_offset_h = 1 (sites.toml), each sample's gauge depth shared by its hours
+    # in the year, the PWM over the samples the screen kept (the only input taken from
+    # the code), nss SO4 = SO4 - 0.0605 Na, flux = PWM x the year's rain.
+    from pathlib import Path
+
+    from workbench.io import read_precipitation, read_sites
+    demo = Path(__file__).resolve().parents[2] / "demo_data"
+    if not (demo / "precipitation.csv").exists():
+        pytest.skip("demo files not made")
+    raw = pd.read_csv(demo / "precipitation.csv")
+    cat = read_sites(demo / "sites.toml")
+    samples, _ = read_precipitation(demo / "precipitation.csv", cat)
+    scr = screen(samples)
+    wet = wet_deposition(scr, P.make_periods(f"{year}-01-01", f"{year + 1}-01-01", "year"))
+    c = _cell(wet, str(year), site)
+    kept = pd.Series(scr["used"].values.astype(bool), index=scr["line"].values)
+    raw["line"] = np.arange(len(raw)) + 2                      # header is line 1
+    g = raw[raw["site"] == site]
+    used = kept.reindex(g["line"]).values
+    s = pd.to_datetime(g["start"]) - pd.Timedelta(hours=1)
+    e = pd.to_datetime(g["end"]) - pd.Timedelta(hours=1)
+    y0, y1 = pd.Timestamp(f"{year}-01-01"), pd.Timestamp(f"{year + 1}-01-01")
+    inside = ((np.minimum(e, y1) - np.maximum(s, y0)).dt.total_seconds().clip(lower=0)
+              / (e - s).dt.total_seconds()).values
+    p = g["gauge_depth [mm]"].values * inside                  # mm in the year
+    no3 = g["NO3_as_N [mg/L]"].values / N * 1000               # umol/L
+    so4 = g["SO4 [mg/L]"].values / M_SO4 * 1000
+    na = g["Na [mg/L]"].values / NA * 1000
+    rain = np.nansum(p)
+
+    def pwm(x):
+        ok = used & np.isfinite(x) & (p > 0)
+        return np.sum(p[ok] * x[ok]) / np.sum(p[ok])
+
+    assert c["precipitation"].item() == pytest.approx(rain, rel=1e-9)
+    assert c["pwm_NO3"].item() == pytest.approx(pwm(no3) * 1e-3, rel=1e-9)
+    assert c["dep_NO3_kg_ha"].item() == pytest.approx(pwm(no3) * 1e-3 * rain * 1e-3 * N * 10,
+                                                      rel=1e-9)
+    nss = pwm(so4) - 0.121 / 2 * pwm(na)
+    assert c["dep_nssSO4_kg_ha"].item() == pytest.approx(nss * 1e-3 * rain * 1e-3 * S * 10,
+                                                         rel=1e-9)
