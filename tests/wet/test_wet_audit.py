@@ -417,12 +417,15 @@ def test_a_wet_period_needs_one_valid_sample():
 
 # ----------------------------------------------------------------- fills (sections 4, 7)
 def test_a_failed_month_filled_with_the_seasonal_pwm_of_the_record():
-    # Dec 2020: one sample, 30 mm, SO4 20; Jan 2021: 1-20 Jan, 20 mm, SO4 50, then no row
-    # (coverage 19/31 < 0.9); Feb 2021: one sample, 10 mm, SO4 80 umol/L.
-    # period_fill = "seasonal": January takes the winter PWM of the record,
-    # (30 x 20 + 20 x 50 + 10 x 80) / 60 = 40 umol/L, times its own 20 mm.
+    # Dec 2020: one sample, 30 mm, SO4 20; Jan 2021: 1-20 Jan, 20 mm, SO4 50, then a
+    # contaminated 5 mm sample (coverage 19/31 < 0.9, gauge record whole); Feb 2021: one
+    # sample, 10 mm, SO4 80 umol/L. period_fill = "seasonal": January takes the winter
+    # PWM of the record's used samples, (30 x 20 + 20 x 50 + 10 x 80) / 60 = 40 umol/L,
+    # times its own 25 mm.
     rows = [dict(start="2020-12-01", end="2021-01-01", gauge_depth=30.0, SO4=20),
             dict(start="2021-01-01", end="2021-01-20", gauge_depth=20.0, SO4=50),
+            dict(start="2021-01-20", end="2021-02-01", gauge_depth=5.0, SO4=500,
+                 flags="contaminated"),
             dict(start="2021-02-01", end="2021-03-01", gauge_depth=10.0, SO4=80)]
     per = P.make_periods("2020-12-01", "2021-03-01", "month")
     for fill, jan_pwm, jan_status in (("none", 50.0, "flagged"), ("seasonal", 40.0, "filled")):
@@ -431,9 +434,29 @@ def test_a_failed_month_filled_with_the_seasonal_pwm_of_the_record():
         jan = _cell(wet, "2021-01")
         assert jan["coverage_fraction"].item() == pytest.approx(19 / 31)
         assert jan["pwm_SO4"].item() == pytest.approx(jan_pwm * 1e-3)
-        assert jan["dep_SO4"].item() == pytest.approx(jan_pwm * 1e-3 * 20e-3)
+        assert jan["gauge_fraction"].item() == pytest.approx(1.0)
+        assert jan["dep_SO4"].item() == pytest.approx(jan_pwm * 1e-3 * 25e-3)
         assert jan["status"].item() == jan_status
         assert _cell(wet, "2020-12")["pwm_SO4"].item() == pytest.approx(20e-3)   # untouched
+
+
+def test_the_seasonal_fill_does_not_make_up_for_missing_rain():
+    # January 2021 with rows for 1-15 January only (14 mm, SO4 50): the gauge record
+    # covers 14/31 of the month, so half of its rain is unknown. A multi-year PWM
+    # replaces missing chemistry, not missing rain: the month stays flagged (fails
+    # completeness) rather than "filled" (which passes), and its own PWM is kept.
+    rows = [dict(start="2020-12-01", end="2021-01-01", gauge_depth=30.0, SO4=20),
+            dict(start="2021-01-01", end="2021-01-15", gauge_depth=14.0, SO4=50),
+            dict(start="2021-02-01", end="2021-03-01", gauge_depth=10.0, SO4=80)]
+    per = P.make_periods("2020-12-01", "2021-03-01", "month")
+    o = WetOptions(period_fill="seasonal")
+    wet = wet_deposition(screen(make_samples(rows, ions=IONS), o), per, o)
+    jan = _cell(wet, "2021-01")
+    assert jan["gauge_fraction"].item() == pytest.approx(14 / 31)
+    assert jan["status"].item() == "flagged" and bool(jan["completeness_failed"].item())
+    assert "gauge record below minimum" in jan["completeness_reasons"].item()
+    assert jan["pwm_SO4"].item() == pytest.approx(50e-3)
+    assert not bool(jan["filled"].item())
 
 
 def test_a_sample_across_a_month_end_shared_by_its_hourly_rain():

@@ -349,6 +349,7 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     reasons = np.full(shape, "", dtype=object)
     reasons = _join(reasons, n_samples == 0, "no samples")
     reasons = _join(reasons, (n_samples > 0) & ~(gauge_hours > 0), "no valid gauge depth")
+    gauge_short = fails[0][0]
     failed = np.zeros(shape, bool)
     for mask, label in fails:
         reasons = _join(reasons, mask & ~missing, label)
@@ -364,7 +365,9 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         for sp in species:
             clim = np.where(has_season[None, :], by_season[sp][:, np.clip(cat, 0, _N_SEASONS - 1)],
                             whole[sp][:, None])
-            take = failed & wet & np.isfinite(clim)
+            # missing chemistry is filled, missing rain is not: a period whose gauge
+            # record fails keeps its own PWM and stays flagged (section 7)
+            take = failed & wet & np.isfinite(clim) & ~gauge_short
             filled |= take
             pwm[sp] = np.where(take, clim, pwm[sp])
         fill_n = int(filled.sum())
