@@ -271,6 +271,28 @@ def test_an_ion_missing_from_a_sample_is_missing_never_zero():
     assert "NH4 valid for 50.0 % of the precipitation only" in note[sites.index("A"), 0]
 
 
+def test_an_ion_never_measured_at_a_site_is_missing_in_its_dry_months_too():
+    # Site B reports no NH4 at all (site A does). Its dry April has 0 mm: 0 deposition of
+    # the ions B measures, but NH4 stays unknown there, as in its wet March: a species
+    # not measured at a site is missing (docs/budget.md, Status), never "0.0 complete".
+    rows = [dict(site="A", start="2021-03-01", end="2021-04-01", gauge_depth=10.0, SO4=30,
+                 NH4=20),
+            dict(site="B", start="2021-03-01", end="2021-04-01", gauge_depth=10.0, SO4=30),
+            dict(site="A", start="2021-04-01", end="2021-05-01", gauge_depth=0.0),
+            dict(site="B", start="2021-04-01", end="2021-05-01", gauge_depth=0.0)]
+    wet = wet_deposition(screen(make_samples(rows, ions=IONS)),
+                         P.make_periods("2021-03-01", "2021-05-01", "month"))
+    assert _cell(wet, "2021-04", "A")["dep_NH4"].item() == 0.0        # measured, dry
+    assert _cell(wet, "2021-04", "B")["dep_SO4"].item() == 0.0
+    assert np.isnan(_cell(wet, "2021-04", "B")["dep_NH4"].item())
+    assert np.isnan(_cell(wet, "2021-04", "B")["dep_NH4_kg_ha"].item())
+    st, note, d, _ = wet_component(wet, "NH4", BudgetOptions(),
+                                   wet["status"].values.astype(object),
+                                   wet["completeness_failed"].values)
+    b = list(wet["site"].values).index("B")
+    assert st[b].tolist() == ["missing", "missing"]
+
+
 # ----------------------------------------------------------------- collocated (section 5)
 def test_collocated_samplers_average_their_depths():
     # two samplers side by side over the same week: 10 mm with SO4 20, 12 mm with SO4 30

@@ -399,8 +399,16 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
             attrs["units"] = units
         out[name] = (("site", "period"), values, attrs)
 
-    def flux(values):
-        return np.where(precip == 0, 0.0, values * precip * M_PER_MM)
+    # an ion with no valid value at a site over the whole record is not measured
+    # there: its deposition is unknown in dry periods too (never 0; section 5)
+    measured = {}
+    for sp in species:
+        c = np.asarray(screened.variables[sp].values, dtype=float)
+        measured[sp] = np.bincount(site_idx[used_s & np.isfinite(c)], minlength=n_site) > 0
+
+    def flux(values, ion):
+        dep = np.where(precip == 0, 0.0, values * precip * M_PER_MM)
+        return np.where(measured[ion][:, None], dep, np.nan)
 
     var("precipitation", precip, "mm", "precipitation depth of all gauge-valid samples")
     var("precipitation_valid", precip_valid, "mm", "precipitation depth with valid chemistry")
@@ -430,7 +438,7 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
             f"measured {ion}: non-sea-salt {ion} clipped at 0")
     all_dep = [(sp, sp, pwm[sp]) for sp in species] + [(n, ion, v) for n, (v, ion) in nss.items()]
     for name, ion, values in all_dep:
-        dep = flux(values)
+        dep = flux(values, ion)
         var(f"dep_{name}", dep, "mol m-2", f"wet deposition of {name}")
         var(f"dep_{name}_eq_ha", deposition_in(dep, ion, "eq_ha"), "eq ha-1",
             f"wet deposition of {name} in equivalents")
