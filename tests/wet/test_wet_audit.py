@@ -197,6 +197,14 @@ def test_leap_february_and_leap_year_hours():
     assert year["period_hours"].item() == 8784
     assert y["coverage_fraction"].item() == pytest.approx(364 * 24 / 8784)
     assert y["precipitation"].item() == pytest.approx(7 * 51 + 21)
+    # hydrological years from October: HY2024 (1 Oct 2023 - 1 Oct 2024) holds 29 Feb
+    hy = P.make_periods("2023-10-01", "2024-10-01", "hydro_year")
+    assert hy["label"].tolist() == ["HY2024"] and hy["hours"].tolist() == [366 * 24]
+    wet = wet_deposition(screen(make_samples(rows, ions=IONS)), hy)
+    # the record starts 1 Jan 2024, so HY2024 lacks October-December 2023 (92 days)
+    # and is recorded on 366 - 92 = 274 days
+    assert _cell(wet, "HY2024")["gauge_fraction"].item() == pytest.approx(
+        (366 - 92) * 24 / (366 * 24))
 
 
 # ----------------------------------------------------------------- gaps (sections 3.8, 7)
