@@ -148,6 +148,8 @@ def test_a_gauge_of_0_mm_under_a_wet_collector_is_not_a_dry_week():
     assert scr["status"].values[-1] != "dry"
     assert scr["gauge_depth_used"].values[-1] == pytest.approx(9.0 / 0.9)
     assert scr["gauge_source"].values[-1] == "collector"
+    assert scr["status"].values[-1] == "flagged"
+    assert "gauge 0 mm under a wet collector" in scr["reasons"].values[-1]
     c = _cell(wet, "6wk")
     assert c["precipitation"].item() == pytest.approx(60.0)
     assert c["pwm_SO4"].item() == pytest.approx((50 * 30 + 10 * 60) / 60 * 1e-3)
