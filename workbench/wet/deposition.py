@@ -18,7 +18,7 @@ from ..units import deposition_in, ureg
 from . import seasalt
 from .hourly import site_positions, window_sums
 from .options import WetOptions
-from .pwm import CoverageProfile, group_sums, precipitation_weighted_mean
+from .pwm import CoverageProfile, covered_share, group_sums, precipitation_weighted_mean
 from .qa import UMOL_L_PER_MOL_M3, falls_short, pH_from_hydrogen
 from .screening import STATUSES
 
@@ -110,47 +110,6 @@ def _climatology(screened, opt, met, site_idx, n_site, species, gauge_prof):
         n_all, d_all = num[sp].reshape(shape).sum(1), den[sp].reshape(shape).sum(1)
         whole[sp] = n_all / np.where(d_all > 0, d_all, np.nan)
     return by_season, whole
-
-
-def covered_share(table, site_idx, start, end, mask, n_site, origin, span):
-    """Share of each (sample, period) piece's hours covered by the samples in `mask` [1].
-
-    Parameters
-    ----------
-    table : pandas.DataFrame
-        Pieces of :func:`sample_weights` (``interval``, ``start``, ``end``, ``hours`` [h]).
-    site_idx : ndarray of int
-        Site of each sample.
-    start, end : ndarray of datetime64
-        Sample intervals. [UTC]
-    mask : ndarray of bool
-        Samples that cover (e.g. the used ones, or those with a value of one ion).
-    n_site : int
-    origin, span
-        Hour axis of :class:`~workbench.wet.pwm.CoverageProfile` [h].
-
-    Returns
-    -------
-    ndarray
-        1 for a piece of a sample in `mask`; for another sample the share of its piece
-        overlapped by samples in `mask` (a collocated sampler), 0 normally.  A piece of
-        no length takes 1 or 0 by `mask`.
-
-    Notes
-    -----
-    With :math:`h_{ip}` the hours of piece *ip* and :math:`c_{ip}` those of them covered
-    by a sample in `mask` at the same site, the share is :math:`c_{ip}/h_{ip}` (uniform
-    rain within a sample, as the share-of-hours split of section 4).
-    """
-    prof = CoverageProfile(site_idx[mask], start[mask], end[mask], n_site, origin, span)
-    i = table["interval"].values
-    length = table["hours"].values.astype(float)
-    got = prof.covered_hours(site_idx[i], table["start"].values.astype("datetime64[ns]"),
-                             table["end"].values.astype("datetime64[ns]"))
-    with np.errstate(invalid="ignore", divide="ignore"):
-        share = np.where(length > 0, got / np.where(length > 0, length, 1.0),
-                         mask[i].astype(float))
-    return np.clip(share, 0.0, 1.0)
 
 
 def sample_weights(screened: xr.Dataset, ptable: pd.DataFrame, options: WetOptions,

@@ -196,3 +196,44 @@ class CoverageProfile:
         .. math:: h = \\int_s^e [m(t) > 0]\\,dt
         """
         return self._at(site_idx, end, self.cum_u) - self._at(site_idx, start, self.cum_u)
+
+
+def covered_share(table, site_idx, start, end, mask, n_site, origin, span):
+    """Share of each (sample, period) piece's hours covered by the samples in `mask` [1].
+
+    Parameters
+    ----------
+    table : pandas.DataFrame
+        Pieces of :func:`workbench.wet.deposition.sample_weights` (``interval``, ``start``, ``end``, ``hours`` [h]).
+    site_idx : ndarray of int
+        Site of each sample.
+    start, end : ndarray of datetime64
+        Sample intervals. [UTC]
+    mask : ndarray of bool
+        Samples that cover (e.g. the used ones, or those with a value of one ion).
+    n_site : int
+    origin, span
+        Hour axis of :class:`CoverageProfile` [h].
+
+    Returns
+    -------
+    ndarray
+        1 for a piece of a sample in `mask`; for another sample the share of its piece
+        overlapped by samples in `mask` (a collocated sampler), 0 normally.  A piece of
+        no length takes 1 or 0 by `mask`.
+
+    Notes
+    -----
+    With :math:`h_{ip}` the hours of piece *ip* and :math:`c_{ip}` those of them covered
+    by a sample in `mask` at the same site, the share is :math:`c_{ip}/h_{ip}` (uniform
+    rain within a sample, as the share-of-hours split of section 4).
+    """
+    prof = CoverageProfile(site_idx[mask], start[mask], end[mask], n_site, origin, span)
+    i = table["interval"].values
+    length = table["hours"].values.astype(float)
+    got = prof.covered_hours(site_idx[i], table["start"].values.astype("datetime64[ns]"),
+                             table["end"].values.astype("datetime64[ns]"))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        share = np.where(length > 0, got / np.where(length > 0, length, 1.0),
+                         mask[i].astype(float))
+    return np.clip(share, 0.0, 1.0)
