@@ -204,7 +204,8 @@ def covered_share(table, site_idx, start, end, mask, n_site, origin, span):
     Parameters
     ----------
     table : pandas.DataFrame
-        Pieces of :func:`workbench.wet.deposition.sample_weights` (``interval``, ``start``, ``end``, ``hours`` [h]).
+        Pieces of :func:`workbench.wet.deposition.sample_weights` (``interval``,
+        ``start``, ``end``, ``hours`` [h]).
     site_idx : ndarray of int
         Site of each sample.
     start, end : ndarray of datetime64
