@@ -51,7 +51,7 @@ class WetPieces:
 
     sample: np.ndarray       #: (m,) int, local sample number 0..n_samples-1
     period: np.ndarray       #: (m,) int, reporting period
-    weight: np.ndarray       #: (m,) [mm] w = P_i f_ip / m_i
+    weight: np.ndarray       #: (m,) [mm] w = P_i f_ip <1/m>_ip (wet.deposition.sample_weights)
     conc: dict               #: ion -> (m,) [mol m-3], 0 where not valid
     valid: dict              #: ion -> (m,) bool, used sample with a value
     censored: dict           #: ion -> (m,) bool, below detection

@@ -18,7 +18,7 @@ from ..units import deposition_in, ureg
 from . import seasalt
 from .hourly import site_positions, window_sums
 from .options import WetOptions
-from .pwm import CoverageProfile, group_sums, precipitation_weighted_mean
+from .pwm import CoverageProfile, covered_share, group_sums, precipitation_weighted_mean
 from .qa import UMOL_L_PER_MOL_M3, falls_short, pH_from_hydrogen
 from .screening import STATUSES
 
@@ -90,15 +90,16 @@ def _weighted(table, screened, weight_all, used, flat, n_flat, species):
     return pwm, num, den
 
 
-def _climatology(screened, opt, met, site_idx, n_site, species, mult):
+def _climatology(screened, opt, met, site_idx, n_site, species, gauge_prof):
     """Multi-year PWM per site and season (and over the whole record) [mol m-3]."""
     t0, t1 = screened.variables["start"].values.min(), screened.variables["end"].values.max()
     seasons = _periods.make_periods(t0, t1, "season")
     table = _split(screened, seasons, opt, met)
     i = table["interval"].values
-    depth = screened.variables["gauge_depth_used"].values[i]
     used = screened.variables["used"].values.astype(bool)[i]
-    weight = np.where(used, depth * table["share"].values / mult[i], 0.0)
+    weight = np.where(used, _piece_weights(
+        table, screened.variables["gauge_valid"].values.astype(bool),
+        screened.variables["gauge_depth_used"].values.astype(float), gauge_prof, site_idx), 0.0)
     s_of = pd.Index(_periods.SEASON_NAMES).get_indexer(seasons["season"].values)
     shape = (n_site, _N_SEASONS)
     flat = site_idx[i] * _N_SEASONS + s_of[table["period"].values]
@@ -131,7 +132,9 @@ def sample_weights(screened: xr.Dataset, ptable: pd.DataFrame, options: WetOptio
         One row per piece: ``interval`` (sample index), ``period`` (row of `ptable`),
         ``share`` [1] of the sample in the period.
     weight : ndarray
-        :math:`w_{ip} = P_i f_{ip} / m_i` [mm] per piece (0 where the gauge is not valid).
+        :math:`w_{ip} = P_i f_{ip} \\langle 1/m \\rangle_{ip}` [mm] per piece (0 where the
+        gauge is not valid), with :math:`\\langle 1/m \\rangle_{ip}` the mean over the piece
+        of one over the number of gauge-valid samples running at each instant.
     gauge_profile : CoverageProfile
         Hours covered by gauge-valid samples.
     origin : numpy.datetime64
@@ -155,9 +158,18 @@ def sample_weights(screened: xr.Dataset, ptable: pd.DataFrame, options: WetOptio
     mult = np.where(gauge_ok, gauge_prof.mean_multiplicity(site_idx, s_all, e_all), 1.0)
     mult = np.where(mult >= 1.0, mult, 1.0)
     table = _split(screened, ptable, options, met)
-    i = table["interval"].values
-    weight = np.where(gauge_ok[i], depth[i] * table["share"].values / mult[i], 0.0)
+    weight = _piece_weights(table, gauge_ok, depth, gauge_prof, site_idx)
     return table, weight, gauge_prof, origin, span, mult
+
+
+def _piece_weights(table, gauge_ok, depth, gauge_prof, site_idx):
+    """w_ip = P_i f_ip <1/m>_ip [mm]: the depth, its share in the period and the mean of
+    1/m over the piece (collocated samplers averaged where they ran together)."""
+    i = table["interval"].values
+    inv = gauge_prof.mean_inverse_multiplicity(
+        site_idx[i], table["start"].values.astype("datetime64[ns]"),
+        table["end"].values.astype("datetime64[ns]"))
+    return np.where(gauge_ok[i], depth[i] * table["share"].values * inv, 0.0)
 
 
 def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptions(),
@@ -201,10 +213,11 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     Notes
     -----
     For sample *i* with gauge depth :math:`P_i`, share :math:`f_{ip}` of it in
-    period *p* (share of hours, or of hourly precipitation) and mean multiplicity
-    :math:`m_i` (number of collocated samples covering it, normally 1):
+    period *p* (share of hours, or of hourly precipitation) and the mean over that part
+    of :math:`1/m(t)`, with :math:`m(t)` the number of gauge-valid samples of the site
+    running at instant *t* (collocated samplers; normally 1):
 
-    .. math:: w_{ip} = P_i f_{ip} / m_i, \\quad
+    .. math:: w_{ip} = P_i f_{ip} \\langle 1/m \\rangle_{ip}, \\quad
               P_p = \\sum_i w_{ip}, \\quad
               \\bar C_p = \\frac{\\sum_{i\\,valid} w_{ip} C_i}{\\sum_{i\\,valid} w_{ip}},
               \\quad D_p = \\bar C_p P_p
@@ -225,7 +238,13 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     species = _species_list(screened)
     status = screened.variables["status"].values.astype(str)
     used_s = screened.variables["used"].values.astype(bool)
-    covering = used_s | (status == "dry")
+    # time coverage: used and dry samples, and trace samples with a known gauge depth
+    # (their rain is measured and counts against the valid-chemistry share instead;
+    # docs/methods_wet.md section 7)
+    trace = (screened.variables["qa_flag_trace"].values.astype(bool)
+             if "qa_flag_trace" in screened.variables else np.zeros(len(status), bool))
+    covering = used_s | (status == "dry") | (trace & screened.variables["gauge_valid"].values
+                                             .astype(bool))
 
     s_all = screened.variables["start"].values.astype("datetime64[ns]")
     e_all = screened.variables["end"].values.astype("datetime64[ns]")
@@ -250,7 +269,15 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     gauge_hours = gauge_prof.covered_hours(gs, gstart, ge).reshape(shape)
     cover_hours = cover_prof.covered_hours(gs, gstart, ge).reshape(shape)
     precip = np.where(gauge_hours > 0, per(weight), np.nan)
-    precip_valid = np.where(gauge_hours > 0, per(np.where(used, weight, 0.0)), np.nan)
+
+    def valid_precip(mask):
+        # rain of the period whose chemistry is known: each gauge-valid piece by the
+        # share of its hours covered by samples in `mask` (itself, or a collocated
+        # partner; section 7) [mm]
+        return per(weight * covered_share(table, site_idx, s_all, e_all, mask, n_site,
+                                          origin, span))
+
+    precip_valid = np.where(gauge_hours > 0, valid_precip(used_s), np.nan)
     counts = {f"n_{s}": per((status[i] == s).astype(float)).astype(int) for s in STATUSES}
     n_samples = per(np.ones(len(i))).astype(int)
     n_valid = counts["n_used"] + counts["n_flagged"]
@@ -281,6 +308,7 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     reasons = np.full(shape, "", dtype=object)
     reasons = _join(reasons, n_samples == 0, "no samples")
     reasons = _join(reasons, (n_samples > 0) & ~(gauge_hours > 0), "no valid gauge depth")
+    gauge_short = fails[0][0]
     failed = np.zeros(shape, bool)
     for mask, label in fails:
         reasons = _join(reasons, mask & ~missing, label)
@@ -289,13 +317,16 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     filled = np.zeros(shape, bool)
     fill_n = 0
     if opt.period_fill == "seasonal" and failed.any():
-        by_season, whole = _climatology(screened, opt, met, site_idx, n_site, species, mult)
+        by_season, whole = _climatology(screened, opt, met, site_idx, n_site, species,
+                                        gauge_prof)
         cat = pd.Index(_periods.SEASON_NAMES).get_indexer(ptable["season"].values)
         has_season = ptable["kind"].isin(["month", "season"]).values & (cat >= 0)
         for sp in species:
             clim = np.where(has_season[None, :], by_season[sp][:, np.clip(cat, 0, _N_SEASONS - 1)],
                             whole[sp][:, None])
-            take = failed & wet & np.isfinite(clim)
+            # missing chemistry is filled, missing rain is not: a period whose gauge
+            # record fails keeps its own PWM and stays flagged (section 7)
+            take = failed & wet & np.isfinite(clim) & ~gauge_short
             filled |= take
             pwm[sp] = np.where(take, clim, pwm[sp])
         fill_n = int(filled.sum())
@@ -327,8 +358,16 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
             attrs["units"] = units
         out[name] = (("site", "period"), values, attrs)
 
-    def flux(values):
-        return np.where(precip == 0, 0.0, values * precip * M_PER_MM)
+    # an ion with no valid value at a site over the whole record is not measured
+    # there: its deposition is unknown in dry periods too (never 0; section 5)
+    measured = {}
+    for sp in species:
+        c = np.asarray(screened.variables[sp].values, dtype=float)
+        measured[sp] = np.bincount(site_idx[used_s & np.isfinite(c)], minlength=n_site) > 0
+
+    def flux(values, ion):
+        dep = np.where(precip == 0, 0.0, values * precip * M_PER_MM)
+        return np.where(measured[ion][:, None], dep, np.nan)
 
     var("precipitation", precip, "mm", "precipitation depth of all gauge-valid samples")
     var("precipitation_valid", precip_valid, "mm", "precipitation depth with valid chemistry")
@@ -358,7 +397,7 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
             f"measured {ion}: non-sea-salt {ion} clipped at 0")
     all_dep = [(sp, sp, pwm[sp]) for sp in species] + [(n, ion, v) for n, (v, ion) in nss.items()]
     for name, ion, values in all_dep:
-        dep = flux(values)
+        dep = flux(values, ion)
         var(f"dep_{name}", dep, "mol m-2", f"wet deposition of {name}")
         var(f"dep_{name}_eq_ha", deposition_in(dep, ion, "eq_ha"), "eq ha-1",
             f"wet deposition of {name} in equivalents")
@@ -383,8 +422,9 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     var("filled", filled, "", "PWM filled with the multi-year seasonal PWM")
     # --- per-ion completeness -----------------------------------------------------------
     ions = [sp for sp in species]
-    frac_ion = np.stack([np.where(precip > 0, den[sp].reshape(shape) / np.where(precip > 0, precip, 1.0),
-                                  np.nan) for sp in ions], axis=-1)
+    frac_ion = np.stack([np.where(precip > 0, valid_precip(
+        used_s & np.isfinite(np.asarray(screened.variables[sp].values, dtype=float)))
+        / np.where(precip > 0, precip, 1.0), np.nan) for sp in ions], axis=-1)
     nval_ion, ncen_ion = [], []
     for sp in ions:
         c = np.asarray(screened.variables[sp].values, dtype=float)[i]

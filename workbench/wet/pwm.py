@@ -141,6 +141,8 @@ class CoverageProfile:
         self.bounds = bounds
         self.cum_m = np.concatenate([[0.0], np.cumsum(m * seg)])
         self.cum_u = np.concatenate([[0.0], np.cumsum((m > 0) * seg)])
+        inv = np.where(m > 0, 1.0 / np.maximum(m, 1), 0.0)
+        self.cum_r = np.concatenate([[0.0], np.cumsum(inv * seg)])
 
     def _at(self, site_idx, times, cum):
         t, _ = _site_axis(site_idx, times, times, self.origin)
@@ -161,6 +163,31 @@ class CoverageProfile:
         with np.errstate(invalid="ignore", divide="ignore"):
             return np.where(length > 0, (b - a) / np.where(length > 0, length, 1.0), 1.0)
 
+    def mean_inverse_multiplicity(self, site_idx, start, end):
+        """Mean of 1/m over ``[start, end)`` [1] (1 for zero length or where no interval covers).
+
+        The share of an interval's rain that is its own when the collocated samplers
+        covering each instant are averaged: 1/2 where two ran, 1 where it ran alone.
+
+        Notes
+        -----
+        .. math:: \\overline{m^{-1}} = \\frac{1}{e - s}\\int_s^e \\frac{[m(t) > 0]}{m(t)}\\,dt
+
+        >>> p = CoverageProfile(np.zeros(2, int), np.array(["2021-01-01", "2021-01-01"],
+        ...     dtype="datetime64[ns]"), np.array(["2021-01-08", "2021-01-04"],
+        ...     dtype="datetime64[ns]"), 1, np.datetime64("2021-01-01", "ns"), 168.0)
+        >>> float(p.mean_inverse_multiplicity(np.array([0]), np.array(["2021-01-01"],
+        ...     dtype="datetime64[ns]"), np.array(["2021-01-08"], dtype="datetime64[ns]"))[0])
+        0.7857142857142857
+        """
+        a = self._at(site_idx, start, self.cum_r)
+        b = self._at(site_idx, end, self.cum_r)
+        s, e = _site_axis(site_idx, start, end, self.origin)
+        length = e - s
+        with np.errstate(invalid="ignore", divide="ignore"):
+            out = np.where(length > 0, (b - a) / np.where(length > 0, length, 1.0), 1.0)
+        return np.where(out > 0, out, 1.0)
+
     def covered_hours(self, site_idx, start, end):
         """Hours of ``[start, end)`` covered by at least one interval [h].
 
@@ -169,3 +196,45 @@ class CoverageProfile:
         .. math:: h = \\int_s^e [m(t) > 0]\\,dt
         """
         return self._at(site_idx, end, self.cum_u) - self._at(site_idx, start, self.cum_u)
+
+
+def covered_share(table, site_idx, start, end, mask, n_site, origin, span):
+    """Share of each (sample, period) piece's hours covered by the samples in `mask` [1].
+
+    Parameters
+    ----------
+    table : pandas.DataFrame
+        Pieces of :func:`workbench.wet.deposition.sample_weights` (``interval``,
+        ``start``, ``end``, ``hours`` [h]).
+    site_idx : ndarray of int
+        Site of each sample.
+    start, end : ndarray of datetime64
+        Sample intervals. [UTC]
+    mask : ndarray of bool
+        Samples that cover (e.g. the used ones, or those with a value of one ion).
+    n_site : int
+    origin, span
+        Hour axis of :class:`CoverageProfile` [h].
+
+    Returns
+    -------
+    ndarray
+        1 for a piece of a sample in `mask`; for another sample the share of its piece
+        overlapped by samples in `mask` (a collocated sampler), 0 normally.  A piece of
+        no length takes 1 or 0 by `mask`.
+
+    Notes
+    -----
+    With :math:`h_{ip}` the hours of piece *ip* and :math:`c_{ip}` those of them covered
+    by a sample in `mask` at the same site, the share is :math:`c_{ip}/h_{ip}` (uniform
+    rain within a sample, as the share-of-hours split of section 4).
+    """
+    prof = CoverageProfile(site_idx[mask], start[mask], end[mask], n_site, origin, span)
+    i = table["interval"].values
+    length = table["hours"].values.astype(float)
+    got = prof.covered_hours(site_idx[i], table["start"].values.astype("datetime64[ns]"),
+                             table["end"].values.astype("datetime64[ns]"))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        share = np.where(length > 0, got / np.where(length > 0, length, 1.0),
+                         mask[i].astype(float))
+    return np.clip(share, 0.0, 1.0)
