@@ -55,9 +55,18 @@ def read_met(path, catalogue):
     met : xarray.Dataset
         Dims (site, time); SI units (see docs/data_model.md).
     ledger : Ledger
-        One row per hour read; notes list gaps and file-level hints.
+        One row per hour read; notes list gaps and file-level hints, and the clock
+        check of :mod:`workbench.io.metclock` (solar radiation against the sun).
     """
     path = Path(path)
+    ds, ledger = _read_met(path, catalogue)
+    from .metclock import clock_notes
+    ledger.notes.extend(clock_notes(ds, catalogue, path.name))
+    return ds, ledger
+
+
+def _read_met(path: Path, catalogue):
+    """:func:`read_met` without the clock check (each format's reader)."""
     if path.suffix in (".nc", ".nc4", ".netcdf"):
         return _read_met_netcdf(path, catalogue)
     from .zarrstore import is_zarr_path
