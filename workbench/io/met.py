@@ -21,6 +21,7 @@ from .table import RawTable
 
 from .metvars import _UNITS_OUT, HOUR, MET_VARIABLES, convert_met  # noqa: F401 (re-exported)
 from .metvars import site_time_dataset
+from .metclock import add_clock_notes
 from .methours import CLOCK_BACK_MONTHS, clock_change_hint  # noqa: F401 (re-exported; in
 #                    methours so that metlocate needs no import of met: no import cycle)
 
@@ -59,14 +60,6 @@ def read_met(path, catalogue):
         check of :mod:`workbench.io.metclock` (solar radiation against the sun).
     """
     path = Path(path)
-    ds, ledger = _read_met(path, catalogue)
-    from .metclock import clock_notes
-    ledger.notes.extend(clock_notes(ds, catalogue, path.name))
-    return ds, ledger
-
-
-def _read_met(path: Path, catalogue):
-    """:func:`read_met` without the clock check (each format's reader)."""
     if path.suffix in (".nc", ".nc4", ".netcdf"):
         return _read_met_netcdf(path, catalogue)
     from .zarrstore import is_zarr_path
@@ -117,6 +110,7 @@ def _read_met(path: Path, catalogue):
         ledger.notes.append(tab.missing_note())
     if tab.end_of_day_note():
         ledger.notes.append(tab.end_of_day_note())
+    add_clock_notes(ds, ledger, catalogue, tab.path)
     return ds, ledger
 
 
@@ -414,6 +408,7 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
     if squeezed:
         ledger.notes.append(f"{path.name}: single-level dimension dropped from "
                             + ", ".join(squeezed))
+    add_clock_notes(ds, ledger, catalogue, path)
     return ds, ledger
 
 

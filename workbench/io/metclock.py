@@ -58,8 +58,6 @@ MIN_SUNNY_DAYS = 10
 #: error that labels make (a whole hour), far beyond the lags of clean cloudy records
 #: (at most 0.1 h on the demo and on records with afternoon cloud; section 4).
 LAG_NOTE_H = 0.75
-#: Sites read at a time from a met store (a lazy Dataset) [sites].
-BLOCK_SITES = 50
 #: Months of the summer half north of the equator (swapped south of it).
 SUMMER_MONTHS_NORTH = (4, 5, 6, 7, 8, 9)
 
@@ -270,7 +268,9 @@ def clock_notes(met, catalogue, file_name) -> list[str]:
     ----------
     met : xarray.Dataset
         (site, time), ``solar_radiation`` [W m-2], ``time`` the hour ends [UTC]; in
-        memory or reading a store (then :data:`BLOCK_SITES` sites at a time).
+        memory or reading a store; checked a group of whole sites at a time, as many
+        as the NetCDF reader checks at once (``io.met.NETCDF_GROUP_RECORDS`` records),
+        so the check's peak memory is the reader's, whatever the number of sites.
     catalogue : SiteCatalogue
     file_name : str
 
@@ -285,9 +285,27 @@ def clock_notes(met, catalogue, file_name) -> list[str]:
     lat = np.array([catalogue[s].latitude for s in ids], float)
     lon = np.array([catalogue[s].longitude for s in ids], float)
     time_end = met["time"].values
+    from . import met as met_module                   # read at call time (tests lower it)
+    step = max(1, met_module.NETCDF_GROUP_RECORDS // len(time_end))
     parts = []
-    for k in range(0, len(ids), BLOCK_SITES):
-        rad = np.asarray(met["solar_radiation"].isel(site=slice(k, k + BLOCK_SITES)).values,
-                         float)
-        parts.append(site_lags(rad, time_end, lat[k:k + BLOCK_SITES], lon[k:k + BLOCK_SITES]))
+    for k in range(0, len(ids), step):
+        rad = np.asarray(met["solar_radiation"].isel(site=slice(k, k + step)).values, float)
+        parts.append(site_lags(rad, time_end, lat[k:k + step], lon[k:k + step]))
     return notes_from_lags(pd.concat(parts, ignore_index=True), ids, catalogue, file_name)
+
+
+def add_clock_notes(met, ledger, catalogue, path) -> None:
+    """Append :func:`clock_notes` of a met Dataset just read to its ledger's notes (each
+    met reader's last step: the CSV readers and the NetCDF/zarr path).
+
+    Parameters
+    ----------
+    met : xarray.Dataset
+    ledger : Ledger
+        Changed in place.
+    catalogue : SiteCatalogue
+    path : str or Path
+        The file read (its name heads the notes).
+    """
+    from pathlib import Path
+    ledger.notes.extend(clock_notes(met, catalogue, Path(path).name))

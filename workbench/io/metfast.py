@@ -198,6 +198,9 @@ def read_met_csv_fast(path, catalogue, chunk_bytes=CHUNK_BYTES):
     except (OSError, EOFError, ValueError, UnicodeDecodeError, zlib.error,
             pd.errors.ParserError):
         return None
+    if got is not None:                  # the clock check, as the line reader's last note
+        from .metclock import add_clock_notes
+        add_clock_notes(got[0], got[1], catalogue, path)
     return got
 
 
