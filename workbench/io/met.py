@@ -97,6 +97,7 @@ def read_met(path, catalogue):
             values[name], raw_units[name] = _convert(tab, name, target)
     ds, ledger = _assemble(values, sites, t, tab.lines, tab.path, catalogue, raw_units,
                            empty_reason="no values in the row")
+    add_clock_notes(ds, ledger, catalogue, tab.path)      # after the gap notes
     pos = pd.Index(list(catalogue.ids)).get_indexer(sites)
     ledger.notes[:0] = methours.move_notes(      # one per site whose hours were moved
         list(catalogue.ids), catalogue.utc_offsets(list(catalogue.ids)),
@@ -110,7 +111,6 @@ def read_met(path, catalogue):
         ledger.notes.append(tab.missing_note())
     if tab.end_of_day_note():
         ledger.notes.append(tab.end_of_day_note())
-    add_clock_notes(ds, ledger, catalogue, tab.path)
     return ds, ledger
 
 
@@ -405,10 +405,10 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
                        time_slice=slice(lo_t, hi_t + 1))
     ds = load_small(ds, store)
     ledger.notes.extend(gaps[s] for s in site_ids)
+    add_clock_notes(ds, ledger, catalogue, path)
     if squeezed:
         ledger.notes.append(f"{path.name}: single-level dimension dropped from "
                             + ", ".join(squeezed))
-    add_clock_notes(ds, ledger, catalogue, path)
     return ds, ledger
 
 

@@ -198,9 +198,6 @@ def read_met_csv_fast(path, catalogue, chunk_bytes=CHUNK_BYTES):
     except (OSError, EOFError, ValueError, UnicodeDecodeError, zlib.error,
             pd.errors.ParserError):
         return None
-    if got is not None:                  # the clock check, as the line reader's last note
-        from .metclock import add_clock_notes
-        add_clock_notes(got[0], got[1], catalogue, path)
     return got
 
 
@@ -540,6 +537,8 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour):
     ds = load_small(ds, store)
     release_free_memory()              # the groups' arrays, freed above
     ledger.notes.extend(gap_notes)
+    from .metclock import add_clock_notes       # after the gaps, as the line reader
+    add_clock_notes(ds, ledger, catalogue, path)
     unknown = [raw_headers[c] for c in raw_headers if c not in set(variables) | {"site", "time"}]
     if unknown:
         ledger.notes.append(f"{path.name}: columns not used: {', '.join(unknown)}")
