@@ -107,14 +107,13 @@ def day_lags(radiation, time_end, latitude, longitude):
     m = np.where(inside, np.take_along_axis(mu, at, axis=1), np.nan).reshape(n_s, n_d, 24)
     clock = np.arange(24) + 0.5                                   # slot middles [h]
     complete = np.isfinite(g).all(axis=2)
-    w_g = np.clip(np.nan_to_num(g) - RADIATION_FLOOR, 0.0, None)
-    w_m = np.clip(np.nan_to_num(m), 0.0, None)
+    w_g = np.fmax(g - RADIATION_FLOOR, 0.0)               # fmax: 0 where NaN
+    w_m = np.fmax(m, 0.0)
     s_g, s_m = w_g.sum(axis=2), w_m.sum(axis=2)
     ok = complete & (s_g > 0) & (s_m > 0)
     with np.errstate(invalid="ignore", divide="ignore"):
         lag = np.where(ok, (w_g @ clock) / s_g - (w_m @ clock) / s_m, np.nan)
-        clear = np.where(ok, np.clip(np.nan_to_num(g), 0, None).sum(axis=2)
-                         / (SOLAR_CONSTANT * s_m), np.nan)
+        clear = np.where(ok, np.fmax(g, 0.0).sum(axis=2) / (SOLAR_CONSTANT * s_m), np.nan)
     # the calendar of each day's middle (zone noon), UTC
     noon = (t_end[0].astype("datetime64[D]").astype("datetime64[h]")
             + ((np.arange(n_d) + first) * 24 + 12)[None, :].astype("timedelta64[h]")
@@ -309,3 +308,4 @@ def add_clock_notes(met, ledger, catalogue, path) -> None:
     """
     from pathlib import Path
     ledger.notes.extend(clock_notes(met, catalogue, Path(path).name))
+
