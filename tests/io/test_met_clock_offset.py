@@ -141,8 +141,8 @@ def test_overcast_record_is_not_judged(tmp_path, demo_cat, ridge_rows):
     _, ledger = read_met(_write(tmp_path, df), demo_cat)
     notes = _clock_notes(ledger)
     assert len(notes) == 1 and "not judged" in notes[0]
-    assert re.search(r"not judged, \d sunny days with a complete day of radiation "
-                     r"\(10 needed\)", notes[0])
+    assert re.search(r"not judged, \d+ sunny days with a complete day of radiation "
+                     r"\(20 needed\)", notes[0])
 
 
 def test_short_record_is_not_judged(tmp_path, demo_cat, ridge_rows, met_reader):
@@ -150,7 +150,7 @@ def test_short_record_is_not_judged(tmp_path, demo_cat, ridge_rows, met_reader):
     df = _moved(ridge_rows[(t > "2019-06-01") & (t <= "2019-06-06")], 2)   # five days
     _, ledger = met_reader(_write(tmp_path, df), demo_cat)
     notes = _clock_notes(ledger)
-    assert len(notes) == 1 and "not judged" in notes[0] and "(10 needed)" in notes[0]
+    assert len(notes) == 1 and "not judged" in notes[0] and "(20 needed)" in notes[0]
 
 
 def test_netcdf_met_is_checked_too(tmp_path, demo_cat, ridge_rows):
@@ -243,3 +243,13 @@ def test_invented_sites_through_the_reader(tmp_path):
     notes = _clock_notes(ledger)
     assert len(notes) == 1 and "summer half (October-March" in notes[0]
     assert "summer only" in notes[0] and "UTC+11, e.g. 2021-07-01T14:00+11:00" in notes[0]
+
+
+def test_summer_only_record_names_the_half_not_judged(tmp_path, demo_cat, ridge_rows):
+    # May-August 2019 moved 1 h: the winter half has no day, said so in the note
+    t = pd.to_datetime(ridge_rows["time"])
+    df = _moved(ridge_rows[(t > "2019-05-01") & (t <= "2019-09-01")], 1)
+    _, ledger = read_met(_write(tmp_path, df), demo_cat)
+    notes = _clock_notes(ledger)
+    assert len(notes) == 1 and _lag(notes[0]) == 1.0, notes
+    assert "winter not judged (under 20 sunny days)" in notes[0]
