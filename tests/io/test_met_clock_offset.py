@@ -253,3 +253,16 @@ def test_summer_only_record_names_the_half_not_judged(tmp_path, demo_cat, ridge_
     notes = _clock_notes(ledger)
     assert len(notes) == 1 and _lag(notes[0]) == 1.0, notes
     assert "winter not judged (under 20 sunny days)" in notes[0]
+
+
+def test_summer_offset_all_year_is_named(tmp_path, demo_cat, ridge_rows):
+    # utc_offset_h holds the summer-time offset: the winter rows (standard time) are 1 h
+    # early, the summer rows on time
+    df = _moved(ridge_rows, -1, where=lambda t: ~_summer_time(t))
+    _, ledger = read_met(_write(tmp_path, df), demo_cat)
+    notes = _clock_notes(ledger)
+    assert len(notes) == 1, ledger.notes
+    assert "early against the sun in winter only" in notes[0]
+    assert "summer half (April-September, " in notes[0] and ") +0.0 h, winter half (" in notes[0]
+    assert "set utc_offset_h = 0 (standard time) in sites.toml" in notes[0]
+    assert "e.g. 2021-01-15T13:00+00:00" in notes[0]

@@ -189,7 +189,7 @@ def _cause(lag, off) -> str:
     `off` [h], and what to write [text]."""
     n = int(np.rint(lag))
     true = off + n
-    zone = f"{'+' if true >= 0 else '-'}{int(abs(true)):02d}:{int(round(abs(true) % 1 * 60)):02d}"
+    zone = _zone(true)
     local = (f"labels in local time of UTC{true:+g} while utc_offset_h = {off:g} (if so, "
              f"set utc_offset_h = {true:g} in sites.toml, or write each label with its zone, "
              f"e.g. 2021-06-01T13:00{zone})")
@@ -201,6 +201,31 @@ def _cause(lag, off) -> str:
              "above the header; NetCDF/zarr: the global attribute time_label = \"start\")"
              ) if n == -1 else ""
     return f"the radiation runs early against the sun: {local}{extra}"
+
+
+def _zone(hours) -> str:
+    """An ISO 8601 zone of an offset [h], e.g. +02:00, -03:30 [text]."""
+    return (f"{'+' if hours >= 0 else '-'}{int(abs(hours)):02d}:"
+            f"{int(round(abs(hours) % 1 * 60)):02d}")
+
+
+def _summer_time(row, off, seen) -> str:
+    """The note's words for summer-time labels: summer 1 h later than winter, one of the
+    two halves on time [text]."""
+    standard, summer = off + np.rint(row.lag_winter), off + np.rint(row.lag_summer)
+    if np.rint(row.lag_winter) == 0:
+        where = f"late against the sun in summer only: {seen}"
+        fix = (f"write the file in standard time (UTC{standard:+g}) all year, or give each "
+               f"label its zone (summer rows UTC{summer:+g}, e.g. "
+               f"2021-07-01T14:00{_zone(summer)})")
+    else:
+        where = (f"early against the sun in winter only: {seen}; utc_offset_h = {off:g} "
+                 f"looks like the summer-time offset")
+        fix = (f"set utc_offset_h = {standard:g} (standard time) in sites.toml and write "
+               f"the file in standard time all year, or give each label its zone (winter "
+               f"rows UTC{standard:+g}, e.g. 2021-01-15T13:00{_zone(standard)})")
+    return (f"radiation {where}: local summer-time (daylight saving) labels? Naive labels "
+            f"are read at utc_offset_h = {off:g} all year: {fix}")
 
 
 def notes_from_lags(table, site_ids, catalogue, file_name) -> list[str]:
@@ -238,27 +263,24 @@ def notes_from_lags(table, site_ids, catalogue, file_name) -> list[str]:
             seen = (f"summer half ({halves}, {int(row.days_summer)} sunny days) "
                     f"{_hours(row.lag_summer)}, winter half ({int(row.days_winter)} days) "
                     f"{_hours(row.lag_winter)}")
-            if abs(row.lag_winter) < LAG_NOTE_H and abs(row.lag_summer - 1.0) < 0.5:
-                true = off + 1
-                notes.append(
-                    f"{head}: radiation late against the sun in summer only: {seen}: local "
-                    f"summer-time (daylight saving) labels? Naive labels are read at "
-                    f"utc_offset_h = {off:g} all year: write the file in standard time all "
-                    f"year, or give each label its zone (summer rows UTC{true:+g}, e.g. "
-                    f"2021-07-01T14:00{'+' if true >= 0 else '-'}{int(abs(true)):02d}:"
-                    f"{int(round(abs(true) % 1 * 60)):02d}){kept}")
+            if abs(row.lag_summer - row.lag_winter - 1.0) < 0.5 and \
+                    min(abs(row.lag_winter), abs(row.lag_summer)) < LAG_NOTE_H:
+                notes.append(f"{head}: {_summer_time(row, off, seen)}{kept}")
             else:
                 notes.append(f"{head}: the lag differs between the halves of the year: {seen}: "
                              f"a logger clock reset or drifting, or summer-time labels "
                              f"written by hand? Check the logger's clock log{kept}")
             continue
         years = {y: v for y, v in row.year_lags.items()}
+        each = ", ".join(f"{y}: {_hours(v)}" for y, v in sorted(years.items()))
+        apart = len(years) > 1 and max(years.values()) - min(years.values()) >= LAG_NOTE_H
         if abs(row.lag) >= LAG_NOTE_H:
+            by_year = (f"; it changes between years ({each}): a logger clock reset or "
+                       f"drifting?" if apart else "")
             notes.append(f"{head}: lag {_hours(row.lag)} (median of {int(row.days)} sunny "
                          f"days; summer {_hours(row.lag_summer)}, winter "
-                         f"{_hours(row.lag_winter)}): {_cause(row.lag, off)}{kept}")
-        elif len(years) > 1 and max(years.values()) - min(years.values()) >= LAG_NOTE_H:
-            each = ", ".join(f"{y}: {_hours(v)}" for y, v in sorted(years.items()))
+                         f"{_hours(row.lag_winter)}): {_cause(row.lag, off)}{by_year}{kept}")
+        elif apart:
             notes.append(f"{head}: the lag changes between years ({each}): a logger clock "
                          f"reset or drifting? Check the logger's clock log{kept}")
     return notes
