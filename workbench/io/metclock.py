@@ -39,17 +39,19 @@ import warnings
 import numpy as np
 import pandas as pd
 
-from ..surface.solar import (DEGREES_PER_HOUR, HOURS_PER_DAY, NS_PER_HOUR,
+from ..surface.solar import (DEGREES_PER_HOUR, HOURS_PER_DAY, NS_PER_HOUR, SOLAR_NOON_HOUR,
                              solar_elevation_sine, time_parts)
 
-#: Solar constant [W m-2] (Kopp & Lean 2011, Geophys. Res. Lett. 38, L01706: 1360.8).
+#: Solar constant [W m-2] (Kopp & Lean 2011, Geophys. Res. Lett. 38, L01706: 1360.8),
+#: without the Earth-Sun distance factor (+-3.4 % over the year; our simplification, a
+#: small change of the clearness index that selects the sunny days only).
 SOLAR_CONSTANT = 1361.0
 #: Radiation below this is taken as the radiometer's zero offset and left out of the
 #: centroid [W m-2] (thermopile offsets are a few W m-2; from memory).
 RADIATION_FLOOR = 5.0
 #: Daily clearness index from which a day is sunny [-] (Liu & Jordan's classes put clear
 #: days above about 0.6, overcast below 0.3, from memory; 0.5 keeps the clear and the
-#: mostly clear days, measured on the demo: docs/data_formats.md, section 4).
+#: mostly clear days, about a third of the demo's; docs/data_formats.md, section 4).
 SUNNY_CLEARNESS = 0.5
 #: Sunny days an estimate needs before it is judged [d] (measured: the median of 20
 #: sunny days drawn from the demo's stays within 0.21 h of the truth in 99.9 % of draws,
@@ -62,6 +64,9 @@ MIN_SUNNY_DAYS = 20
 LAG_NOTE_H = 0.75
 #: Months of the summer half north of the equator (swapped south of it).
 SUMMER_MONTHS_NORTH = (4, 5, 6, 7, 8, 9)
+#: Summer-time labels: the summer half this much later than the winter half [h], to
+#: within SUMMER_TIME_TOL_H [h] (the clock change of summer time; common practice).
+SUMMER_TIME_STEP_H, SUMMER_TIME_TOL_H = 1.0, 0.5
 
 
 def day_lags(radiation, time_end, latitude, longitude):
@@ -101,13 +106,14 @@ def day_lags(radiation, time_end, latitude, longitude):
     start = h0 + zone                                              # zone hour of hour 0
     first = int(np.floor(start.min() / HOURS_PER_DAY))
     n_d = int(np.floor((start.max() + n_t - 1) / HOURS_PER_DAY)) - first + 1
-    pos = (first * int(HOURS_PER_DAY) + np.arange(n_d * int(HOURS_PER_DAY)))[None, :] \
+    day = int(HOURS_PER_DAY)
+    pos = (first * day + np.arange(n_d * day))[None, :] \
         - start[:, None]                                           # (site, day*24) -> time
     inside = (pos >= 0) & (pos < n_t)
     at = np.clip(pos, 0, n_t - 1)
-    g = np.where(inside, np.take_along_axis(rad, at, axis=1), np.nan).reshape(n_s, n_d, 24)
-    m = np.where(inside, np.take_along_axis(mu, at, axis=1), np.nan).reshape(n_s, n_d, 24)
-    clock = np.arange(24) + 0.5                                   # slot middles [h]
+    g = np.where(inside, np.take_along_axis(rad, at, axis=1), np.nan).reshape(n_s, n_d, day)
+    m = np.where(inside, np.take_along_axis(mu, at, axis=1), np.nan).reshape(n_s, n_d, day)
+    clock = np.arange(day) + 0.5                                  # slot middles [h]
     complete = np.isfinite(g).all(axis=2)
     w_g = np.fmax(g - RADIATION_FLOOR, 0.0)               # fmax: 0 where NaN
     w_m = np.fmax(m, 0.0)
@@ -118,7 +124,8 @@ def day_lags(radiation, time_end, latitude, longitude):
         clear = np.where(ok, np.fmax(g, 0.0).sum(axis=2) / (SOLAR_CONSTANT * s_m), np.nan)
     # the calendar of each day's middle (zone noon), UTC
     noon = (t_end[0].astype("datetime64[D]").astype("datetime64[h]")
-            + ((np.arange(n_d) + first) * 24 + 12)[None, :].astype("timedelta64[h]")
+            + ((np.arange(n_d) + first) * day + int(SOLAR_NOON_HOUR))[None, :]
+            .astype("timedelta64[h]")
             - zone[:, None].astype("timedelta64[h]"))
     month = (noon.astype("datetime64[M]").astype(np.int64) % 12 + 1)
     year = noon.astype("datetime64[Y]").astype(np.int64) + 1970
@@ -263,7 +270,7 @@ def notes_from_lags(table, site_ids, catalogue, file_name) -> list[str]:
             seen = (f"summer half ({halves}, {int(row.days_summer)} sunny days) "
                     f"{_hours(row.lag_summer)}, winter half ({int(row.days_winter)} days) "
                     f"{_hours(row.lag_winter)}")
-            if abs(row.lag_summer - row.lag_winter - 1.0) < 0.5 and \
+            if abs(row.lag_summer - row.lag_winter - SUMMER_TIME_STEP_H) < SUMMER_TIME_TOL_H and \
                     min(abs(row.lag_winter), abs(row.lag_summer)) < LAG_NOTE_H:
                 notes.append(f"{head}: {_summer_time(row, off, seen)}{kept}")
             else:
