@@ -15,13 +15,13 @@ import xarray as xr
 
 from ..errors import InputError, suggest
 from . import metchecks, methours
+from .metclock import add_clock_notes
 from .common import check_sites, check_time_zones, join_reasons, unit_error
 from .ledger import Ledger
 from .table import RawTable
 
 from .metvars import _UNITS_OUT, HOUR, MET_VARIABLES, convert_met  # noqa: F401 (re-exported)
 from .metvars import site_time_dataset
-from .metclock import add_clock_notes
 from .methours import CLOCK_BACK_MONTHS, clock_change_hint  # noqa: F401 (re-exported; in
 #                    methours so that metlocate needs no import of met: no import cycle)
 

@@ -35,6 +35,7 @@ and its measurement: docs/data_formats.md, section 4.
 from __future__ import annotations
 
 import warnings
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -317,7 +318,7 @@ def clock_notes(met, catalogue, file_name) -> list[str]:
     lat = np.array([catalogue[s].latitude for s in ids], float)
     lon = np.array([catalogue[s].longitude for s in ids], float)
     time_end = met["time"].values
-    from . import met as met_module                   # read at call time (tests lower it)
+    from . import met as met_module   # met imports this module; read at call time
     step = max(1, met_module.NETCDF_GROUP_RECORDS // len(time_end))
     parts = []
     for k in range(0, len(ids), step):
@@ -339,6 +340,5 @@ def add_clock_notes(met, ledger, catalogue, path) -> None:
     path : str or Path
         The file read (its name heads the notes).
     """
-    from pathlib import Path
     ledger.notes.extend(clock_notes(met, catalogue, Path(path).name))
 
