@@ -405,7 +405,7 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
                        time_slice=slice(lo_t, hi_t + 1))
     ds = load_small(ds, store)
     ledger.notes.extend(gaps[s] for s in site_ids)
-    add_clock_notes(ds, ledger, catalogue, path)
+    add_clock_notes(ds, ledger, catalogue, path, NETCDF_GROUP_RECORDS)
     if squeezed:
         ledger.notes.append(f"{path.name}: single-level dimension dropped from "
                             + ", ".join(squeezed))

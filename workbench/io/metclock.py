@@ -294,18 +294,25 @@ def notes_from_lags(table, site_ids, catalogue, file_name) -> list[str]:
     return notes
 
 
-def clock_notes(met, catalogue, file_name) -> list[str]:
+#: Records (site x hour) checked at a time unless the caller says [record]: the met
+#: readers' group of whole sites (``io.met.NETCDF_GROUP_RECORDS``, ``io.metfast.CHECK_ROWS``).
+GROUP_RECORDS = 400_000
+
+
+def clock_notes(met, catalogue, file_name, group_records=None) -> list[str]:
     """The clock check of a met Dataset: :func:`site_lags`, then :func:`notes_from_lags`.
 
     Parameters
     ----------
     met : xarray.Dataset
         (site, time), ``solar_radiation`` [W m-2], ``time`` the hour ends [UTC]; in
-        memory or reading a store; checked a group of whole sites at a time, as many
-        as the NetCDF reader checks at once (``io.met.NETCDF_GROUP_RECORDS`` records),
-        so the check's peak memory is the reader's, whatever the number of sites.
+        memory or reading a store; checked a group of whole sites at a time.
     catalogue : SiteCatalogue
     file_name : str
+    group_records : int, optional
+        Records per group [record] (default :data:`GROUP_RECORDS`): the reader's own
+        group, so that the check's peak memory is the reader's, whatever the number of
+        sites.
 
     Returns
     -------
@@ -318,8 +325,7 @@ def clock_notes(met, catalogue, file_name) -> list[str]:
     lat = np.array([catalogue[s].latitude for s in ids], float)
     lon = np.array([catalogue[s].longitude for s in ids], float)
     time_end = met["time"].values
-    from . import met as met_module   # met imports this module; read at call time
-    step = max(1, met_module.NETCDF_GROUP_RECORDS // len(time_end))
+    step = max(1, (group_records or GROUP_RECORDS) // len(time_end))
     parts = []
     for k in range(0, len(ids), step):
         rad = np.asarray(met["solar_radiation"].isel(site=slice(k, k + step)).values, float)
@@ -327,7 +333,7 @@ def clock_notes(met, catalogue, file_name) -> list[str]:
     return notes_from_lags(pd.concat(parts, ignore_index=True), ids, catalogue, file_name)
 
 
-def add_clock_notes(met, ledger, catalogue, path) -> None:
+def add_clock_notes(met, ledger, catalogue, path, group_records=None) -> None:
     """Append :func:`clock_notes` of a met Dataset just read to its ledger's notes (each
     met reader's last step: the CSV readers and the NetCDF/zarr path).
 
@@ -339,6 +345,8 @@ def add_clock_notes(met, ledger, catalogue, path) -> None:
     catalogue : SiteCatalogue
     path : str or Path
         The file read (its name heads the notes).
+    group_records : int, optional
+        As :func:`clock_notes`.
     """
-    ledger.notes.extend(clock_notes(met, catalogue, Path(path).name))
+    ledger.notes.extend(clock_notes(met, catalogue, Path(path).name, group_records))
 

@@ -538,7 +538,7 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour):
     ds = load_small(ds, store)
     release_free_memory()              # the groups' arrays, freed above
     ledger.notes.extend(gap_notes)
-    add_clock_notes(ds, ledger, catalogue, path)      # after the gaps, as the line reader
+    add_clock_notes(ds, ledger, catalogue, path, CHECK_ROWS)   # after the gaps, as the line reader
     unknown = [raw_headers[c] for c in raw_headers if c not in set(variables) | {"site", "time"}]
     if unknown:
         ledger.notes.append(f"{path.name}: columns not used: {', '.join(unknown)}")
