@@ -23,7 +23,9 @@ Method (per site, vectorized over sites and days; no loop over hours):
    day's centroid at random, which the median over days then ignores.
 4. The site's lag is the median of its sunny days, over the whole record and over the
    summer and winter halves (April-September and October-March, swapped south of the
-   equator), so that summer-time labels (a lag in summer only) are named as such.
+   equator), so that summer-time labels (a lag in summer only) are named as such, and
+   per calendar year (a clock reset between years); each figure needs
+   :data:`MIN_SUNNY_DAYS` sunny days, else it is "not judged".
 
 Why the centroid and not the best lag of a correlation with cos(zenith): it gives a
 lag in fractions of an hour from one pass of the solar code (a correlation needs one
