@@ -15,6 +15,7 @@ import xarray as xr
 
 from ..errors import InputError, suggest
 from . import metchecks, methours
+from .metclock import add_clock_notes
 from .common import check_sites, check_time_zones, join_reasons, unit_error
 from .ledger import Ledger
 from .table import RawTable
@@ -55,7 +56,8 @@ def read_met(path, catalogue):
     met : xarray.Dataset
         Dims (site, time); SI units (see docs/data_model.md).
     ledger : Ledger
-        One row per hour read; notes list gaps and file-level hints.
+        One row per hour read; notes list gaps and file-level hints, and the clock
+        check of :mod:`workbench.io.metclock` (solar radiation against the sun).
     """
     path = Path(path)
     if path.suffix in (".nc", ".nc4", ".netcdf"):
@@ -95,6 +97,7 @@ def read_met(path, catalogue):
             values[name], raw_units[name] = _convert(tab, name, target)
     ds, ledger = _assemble(values, sites, t, tab.lines, tab.path, catalogue, raw_units,
                            empty_reason="no values in the row")
+    add_clock_notes(ds, ledger, catalogue, tab.path)      # after the gap notes
     pos = pd.Index(list(catalogue.ids)).get_indexer(sites)
     ledger.notes[:0] = methours.move_notes(      # one per site whose hours were moved
         list(catalogue.ids), catalogue.utc_offsets(list(catalogue.ids)),
@@ -402,6 +405,7 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
                        time_slice=slice(lo_t, hi_t + 1))
     ds = load_small(ds, store)
     ledger.notes.extend(gaps[s] for s in site_ids)
+    add_clock_notes(ds, ledger, catalogue, path, NETCDF_GROUP_RECORDS)
     if squeezed:
         ledger.notes.append(f"{path.name}: single-level dimension dropped from "
                             + ", ".join(squeezed))

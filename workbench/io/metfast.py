@@ -67,6 +67,7 @@ from ..errors import InputError
 from ..threads import map_ordered, threads_here
 from ..units import parse_header
 from . import metchecks, methours, metlocate
+from .metclock import add_clock_notes
 from .common import join_reasons, release_free_memory
 from .ledger import CodedRows, Ledger
 from .linechunks import (Source, gunzip, header_cells, line_cells, normalise, parsed_cells,
@@ -537,6 +538,7 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour):
     ds = load_small(ds, store)
     release_free_memory()              # the groups' arrays, freed above
     ledger.notes.extend(gap_notes)
+    add_clock_notes(ds, ledger, catalogue, path, CHECK_ROWS)   # after the gaps, as the line reader
     unknown = [raw_headers[c] for c in raw_headers if c not in set(variables) | {"site", "time"}]
     if unknown:
         ledger.notes.append(f"{path.name}: columns not used: {', '.join(unknown)}")
