@@ -80,10 +80,26 @@ def cmd_check(args) -> int:
     from .preflight import prepare
     prep = prepare(args.scenario, progress=_progress(args.quiet))
     print(f"scenario: {prep.scenario.path}")
-    print(prep.study.inputs.describe())
+    print(_inputs_text(prep.study.inputs))
     print()
     print(prep.describe())
     return 0
+
+
+def _inputs_text(inputs) -> str:
+    """``inputs.describe()``; for a network of more than
+    :data:`workbench.report_network.NETWORK_SITES` sites with its closing notes grouped
+    by site (:func:`workbench.report_network.grouped_free_notes`: "met v01: complete
+    hourly record ... — the same at 21 more sites: ...")."""
+    from .report_network import NETWORK_SITES, grouped_free_notes
+    text = inputs.describe()
+    notes = list(inputs.ledger.notes)
+    ids = list(inputs.catalogue.ids)
+    block = "\nnotes:\n" + "\n".join(f"  {n}" for n in notes)
+    if len(ids) <= NETWORK_SITES or not notes or not text.endswith(block):
+        return text
+    return text[:-len(block)] + "\nnotes:\n" + "\n".join(
+        f"  {n}" for n in grouped_free_notes(notes, ids))
 
 
 def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=None,
@@ -172,6 +188,8 @@ def cmd_run(args) -> int:
         print(f"  {name}")
     for line in status_lines(result.table, study.inputs):
         print(line)
+    for line in site_status_lines(result.table):
+        print(line)
     return 0
 
 
@@ -200,6 +218,46 @@ def status_lines(table, inputs) -> list[str]:
         lines.append("warning: every budget is missing")
         if start is not None and end is not None:
             lines.extend("  " + c for c in coverage_notes(inputs, start, end))
+    return lines
+
+
+def site_status_lines(table, min_sites=None) -> list[str]:
+    """Where a network's totals are not complete, for the console: one line per element,
+    status and set of missing components, naming the sites (with the periods, where not
+    every period).  Empty for a run of at most `min_sites` sites (default
+    :data:`workbench.report_network.NETWORK_SITES`), whose few sites the report shows
+    one by one.
+
+    A site counts when any of its receptors has that status in that period."""
+    from .report_network import NETWORK_SITES, year_span
+    min_sites = NETWORK_SITES if min_sites is None else min_sites
+    t = table[(table["period"].astype(str) != "span") & (table["species"] == "all")
+              & (table["pathway"] == "total")]
+    if t.empty or t["site"].nunique() <= min_sites:
+        return []
+    every = set(t["period"].astype(str))
+    miss = t["missing_components"].fillna("").astype(str) if "missing_components" in t \
+        else ""
+    t = t.assign(_miss=miss, _period=t["period"].astype(str), _status=t["status"].astype(str))
+    words = {"partial": "partial", "flagged": "flagged (read with care: report.html says why)",
+             "missing": "missing (no data)"}
+    lines = []
+    for el in ("S", "N"):
+        for status, word in words.items():
+            g = t[(t["element"] == el) & (t["_status"] == status)]
+            if status != "partial":            # missing: every component; flagged: kept
+                g = g.assign(_miss="")
+            for m, gm in g.groupby("_miss", sort=True):
+                sites = []
+                for site, gs in gm.groupby("site", sort=False):
+                    ps = set(gs["_period"])
+                    sites.append(f"{site}" if ps == every else f"{site} ({year_span(ps)})")
+                what = f"{el} {word}" + (f" without {', '.join(m.split())}" if m else "")
+                lines.append(f"  {what}: {len(sites)} site{'s' if len(sites) > 1 else ''}: "
+                             + ", ".join(sites))
+    if lines:
+        lines.insert(0, "sites whose totals are not complete (a site counts when any "
+                     "receptor is; summary.csv has each; no period named = every period):")
     return lines
 
 
