@@ -171,7 +171,8 @@ def ranking_html(span: pd.DataFrame, table_html, n_periods=None) -> list:
         r = ranking(span, el, n_periods)
         out.append(f"<div><h3>{el}</h3>")
         for group, g in r.groupby("group", sort=False):
-            out.append(f"<p><b>{html.escape(group)}</b> ({len(g)} sites)</p>")
+            out.append(f"<p><b>{html.escape(group)}</b> ({len(g)} site"
+                       f"{'' if len(g) == 1 else 's'})</p>")
             out.append(table_html(g.drop(columns="group")))
         out.append("</div>")
     out.append("</div>")
