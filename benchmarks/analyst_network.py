@@ -24,7 +24,8 @@ which, printed by the command):
 - ``precip_gap``: a collector out of service for 14 weeks (rows absent);
 - ``air_gap``: a filter pack out of service for 10 weeks (rows absent);
 - ``met_gap``: a mast down for 5 weeks (hours absent);
-- ``closed``: a site closed one year before the end of the record.
+- ``closed``: a site closed one year before the end of the record;
+- ``no_data``: a site listed in sites.toml before its first record (no row anywhere).
 
 The deliberate problems of the demo (``planted_problems.json``) come with the rows of
 each copy, so a network run meets each one several times, as a real network would.
@@ -56,7 +57,7 @@ _KIND = {"ridge": "plantation", "fell": "fell", "mere": "moss", "farm": "grange"
 #: Imperfection -> index of the site that has it (for the default 30 sites; smaller
 #: networks keep those whose site exists).
 IMPERFECTIONS = {"late_start": 5, "no_nh3": 9, "precip_gap": 13, "air_gap": 17,
-                 "met_gap": 22, "closed": 26}
+                 "met_gap": 22, "closed": 26, "no_data": 29}
 
 
 def _toml_load(path):
@@ -112,6 +113,8 @@ class _Plan:
                     self.drop[kind][i] = ("0000", f"{FIRST_YEAR + min(3, years - 1)}-01-01")
                 elif k == "closed" and years > 1:
                     self.drop[kind][i] = (f"{FIRST_YEAR + years - 1}-01-01", "9999")
+                elif k == "no_data":
+                    self.drop[kind][i] = ("0000", "9999")
         if "precip_gap" in self.which:
             self.drop["precipitation"][self.which["precip_gap"]] = (f"{mid}-03-01",
                                                                    f"{mid}-06-07")

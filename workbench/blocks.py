@@ -44,6 +44,37 @@ __all__ = ["ClusterStart", "close_client", "run_blocks", "run_network", "site_bl
            "start_client", "wanted_blocks", "wants_blocks"]
 
 
+def blocks_with_met(wanted, inputs, receptors) -> list:
+    """`wanted` (:func:`wanted_blocks`) with each block whose sites have no hour of met
+    (a site listed in sites.toml before its first record) joined to the first block
+    that has some, its surfaces added in the network's order: such a block alone has
+    an empty met table, which the dry chain cannot take; in a whole run, and so here,
+    those sites' dry budgets are missing.  Unchanged when every block has met or none
+    has.
+
+    >>> from types import SimpleNamespace as S
+    >>> import xarray as xr
+    >>> inp = S(met=xr.Dataset(coords={"site": ["a", "b"]}))
+    >>> blocks_with_met([(["a"], ("grass",)), (["n"], ("crops",)), (["b"], ("grass",))],
+    ...                 inp, ["grass", "crops"])
+    [(['a', 'n'], ('grass', 'crops')), (['b'], ('grass',))]
+    """
+    met = getattr(inputs, "met", None)
+    have = set(met["site"].values.astype(str)) if met is not None and "site" in met.coords \
+        else set()
+    has = [any(s in have for s in sites) for sites, _ in wanted]
+    if all(has) or not any(has):
+        return list(wanted)
+    host = has.index(True)
+    out = [(list(sites), tuple(recs)) for sites, recs in wanted]
+    for i, (sites, recs) in enumerate(wanted):
+        if not has[i]:
+            hs, hr = out[host]
+            joined = set(hr) | set(recs)
+            out[host] = (hs + list(sites), tuple(r for r in receptors if r in joined))
+    return [b for b, h in zip(out, has) if h]
+
+
 def site_blocks(sites, block_sites=None) -> list:
     """The site ids in consecutive blocks of at most `block_sites` (None: one block).
 
@@ -364,7 +395,8 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
             "resolution": resolution, "start": start, "end": end}
     receptors = whole.receptors()
     # blocks of sites asking for the same surfaces: only wanted pairs are computed
-    wanted = wanted_blocks(whole.catalogue(), receptors, block_sites)
+    wanted = blocks_with_met(wanted_blocks(whole.catalogue(), receptors, block_sites),
+                             inputs, receptors)
     blocks = [sites for sites, _ in wanted]
     block_args = [{**args, "receptors": recs} for _, recs in wanted]
     precip = inputs.precipitation

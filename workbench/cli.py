@@ -32,6 +32,12 @@ def demo_folder() -> Path:
 
 DEMO_SCENARIO = demo_folder() / "scenario.toml"
 
+#: Largest default block of a run in blocks in this process [site-years]: the peak
+#: memory of a block grows with its site-years (about 290 MB + 43 MB a site-year on the
+#: 30-site, 10-year network of benchmarks/analyst_network.py, docs/performance.md), so a
+#: long record gets blocks of fewer sites than :data:`workbench.blocks.DEFAULT_MAX_BLOCK`.
+BLOCK_SITE_YEARS = 20
+
 #: Reporting resolutions of ``workbench run --resolution`` (as ``[period] resolution``).
 RESOLUTIONS = ("year", "hydro_year", "season", "month")
 
@@ -148,6 +154,8 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
             if wants_blocks(len(study.inputs.catalogue.ids), workers, scheduler, block_sites,
                             getattr(unc, "draws", 0) if unc is not None else 0):
                 from .blocks import run_network
+                if block_sites is None and not workers and not scheduler:
+                    block_sites = default_block_sites(len(prep.years))
                 result = run_network(*args, sc=sc, workers=workers, scheduler=scheduler,
                                      block_sites=block_sites, progress=bar.set_postfix_str,
                                      cluster=cluster)
@@ -164,6 +172,18 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
             if cluster is not None:
                 cluster.close()
     return written, result, study
+
+
+def default_block_sites(n_years) -> int:
+    """Sites per block of a run in blocks in this process without ``--block-sites``:
+    :data:`workbench.blocks.DEFAULT_MAX_BLOCK`, fewer when a block of them would hold
+    more than :data:`BLOCK_SITE_YEARS` site-years (at least 1).
+
+    >>> default_block_sites(2), default_block_sites(10), default_block_sites(30)
+    (4, 2, 1)
+    """
+    from . import blocks
+    return max(1, min(blocks.DEFAULT_MAX_BLOCK, BLOCK_SITE_YEARS // max(1, int(n_years))))
 
 
 def _early_cluster(sc, workers, scheduler):
@@ -357,7 +377,8 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--block-sites", type=_positive, default=None, metavar="K",
                    # blocks.DEFAULT_MAX_BLOCK and AUTO_BLOCK_SITES (not imported here:
                    # the parser stays light; tests/test_cli.py holds the text to them)
-                   help="sites per block (default 4; a network of more than 20 sites is "
+                   help="sites per block (default 4; fewer for a long record, at most "
+                   "20 site-years a block; a network of more than 20 sites is "
                    "computed in blocks without this option); in block mode velocities.nc "
                    "is not written")
     r.set_defaults(func=cmd_run)
