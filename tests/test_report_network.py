@@ -157,3 +157,15 @@ def test_check_groups_the_notes_of_a_network(network, capsys):
     notes = text[text.index("\nnotes:\n") + 1:].split("\n\n")[0].splitlines()[1:]
     assert len(notes) == 2, notes               # 9 full records in one line, v06 apart
     assert "the same at 8 more sites" in notes[0] and notes[1].startswith("  met v06")
+
+
+def test_check_names_the_sites_a_data_file_does_not_hold(tmp_path, capsys):
+    """A site listed in sites.toml before its first record: `check` said nothing of it
+    (only the per-site counts lacked it)."""
+    from ui.demo_subset import write_demo_subset
+    scenario = write_demo_subset(tmp_path / "in", ("ridge", "fell"), 2021, 2021)
+    assert main(["check", str(scenario), "--quiet"]) == 0
+    out = capsys.readouterr().out
+    line = [ln for ln in out.splitlines() if ln.startswith("note: 2 sites of sites.toml")]
+    assert line == ["note: 2 sites of sites.toml with no record at all (in no data file): "
+                    "mere, farm; their budgets will be missing"]

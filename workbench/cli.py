@@ -87,9 +87,40 @@ def cmd_check(args) -> int:
     prep = prepare(args.scenario, progress=_progress(args.quiet))
     print(f"scenario: {prep.scenario.path}")
     print(_inputs_text(prep.study.inputs))
+    for line in absent_site_lines(prep.study.inputs):
+        print(line)
     print()
     print(prep.describe())
     return 0
+
+
+def absent_site_lines(inputs) -> list[str]:
+    """Sites of sites.toml that a data file does not hold, for ``workbench check``: one
+    line per set of absent inputs, naming the sites (their budgets will miss what those
+    files give).  Empty when every site is in every file that was given."""
+    import numpy as np
+    have = {}
+    for role, ds in (("precipitation samples", inputs.precipitation),
+                     ("air concentrations", inputs.air), ("met hours", inputs.met)):
+        if ds is not None and "site" in ds.variables:
+            have[role] = set(np.unique(ds["site"].values.astype(str)))
+    if not have:
+        return []
+    by = {}
+    for sid in inputs.catalogue.ids:
+        gone = tuple(r for r, ids in have.items() if str(sid) not in ids)
+        if gone:
+            by.setdefault(gone, []).append(str(sid))
+    lines = []
+    for gone, sites in by.items():
+        every = len(gone) == len(have)
+        what = "no record at all (in no data file)" if every else "no " + " and no ".join(gone)
+        lines.append(f"note: {len(sites)} site{'s' if len(sites) > 1 else ''} of sites.toml "
+                     f"with {what}: {', '.join(sites)}; "
+                     + ("its budgets will be missing" if every and len(sites) == 1 else
+                        "their budgets will be missing" if every else
+                        "the parts of the budget those files give will be missing"))
+    return lines
 
 
 def _inputs_text(inputs) -> str:
