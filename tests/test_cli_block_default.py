@@ -51,3 +51,20 @@ def test_a_site_without_any_record_runs_in_blocks_as_in_a_whole_run(tmp_path):
         assert (tmp_path / "whole" / name).read_bytes() == (tmp_path / "b1" / name).read_bytes()
     summary = (tmp_path / "b1" / "summary.csv").read_text(encoding="utf-8")
     assert "\nfarm," in summary
+
+
+def test_block_progress_counts_the_blocks_done(tmp_path):
+    """On threads the blocks end out of order: the progress said "block 8/16" before
+    "block 7/16" (the block's place, not the count done) and "(1 sites)"."""
+    from workbench.blocks import run_blocks
+    from workbench.preflight import prepare
+    from workbench.scenario import load_scenario
+    sc = load_scenario(write_demo_subset(tmp_path / "in", ("ridge", "fell", "mere"), 2021,
+                                         2021))
+    prep = prepare(sc)
+    o = sc.options
+    said = []
+    run_blocks(prep.study, o["wet"], o["dry"], o["budget"], sc.fixed_velocity, "year",
+               "2021-01-01", "2022-01-01", block_sites=1, threads=2, progress=said.append)
+    assert [t.split(" done")[0] for t in said] == ["block 1/3", "block 2/3", "block 3/3"]
+    assert sorted(t.split("done ")[1] for t in said) == ["(1 site)", "(1 site)", "(2 sites)"]

@@ -44,6 +44,11 @@ __all__ = ["ClusterStart", "close_client", "run_blocks", "run_network", "site_bl
            "start_client", "wanted_blocks", "wants_blocks"]
 
 
+def _n_sites(n) -> str:
+    """``1 site``, ``2 sites``."""
+    return f"{n} site" + ("" if n == 1 else "s")
+
+
 def blocks_with_met(wanted, inputs, receptors) -> list:
     """`wanted` (:func:`wanted_blocks`) with each block whose sites have no hour of met
     (a site listed in sites.toml before its first record) joined to the first block
@@ -417,14 +422,15 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
         def one(i):
             return run_block(block_inputs(inputs, blocks[i]), site_overrides, block_args[i],
                              keep_velocities)
+        finished = itertools.count(1)      # blocks end out of order on threads: count them
         if n_threads <= 1:
             for i, sites in enumerate(blocks):
                 done[i] = one(i)
-                say(f"block {i + 1}/{len(blocks)} ({len(sites)} sites)")
+                say(f"block {next(finished)}/{len(blocks)} done ({_n_sites(len(sites))})")
         else:
             _run_on_threads(one, done, n_threads,
-                            lambda i: say(f"block {i + 1}/{len(blocks)} "
-                                          f"({len(blocks[i])} sites)"))
+                            lambda i: say(f"block {next(finished)}/{len(blocks)} done "
+                                          f"({_n_sites(len(blocks[i]))})"))
     else:
         from .optional import require
         distributed = require("distributed")
@@ -454,7 +460,7 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
             i = futures.pop(fut)
             done[i] = fut.result()      # a failed block raises its error here
             fut.release()
-            say(f"block {n}/{len(blocks)} done ({len(blocks[i])} sites)")
+            say(f"block {n}/{len(blocks)} done ({_n_sites(len(blocks[i]))})")
             nxt = submit()
             if nxt is not None:
                 queue.add(nxt)

@@ -167,8 +167,11 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
         # are read; closed after the blocks, or after an error here
         cluster = _early_cluster(sc, workers, scheduler)
         steps = ["sites", "precipitation", "air", "met", "budget", "outputs"]
+        # no time left is shown: the steps take unequal times (the blocks most of a
+        # network's run), so tqdm's estimate read "2 s left" for a minute
         bar = tqdm(total=len(steps), desc="workbench", disable=quiet, delay=1.0,
-                   file=sys.stderr)
+                   file=sys.stderr,
+                   bar_format="{l_bar}{bar}| {n_fmt}/{total_fmt} [{elapsed}{postfix}]")
 
         def step(text):
             bar.set_postfix_str(text)
