@@ -100,6 +100,10 @@ def test_ranking_rule_on_a_hand_made_table():
     assert list(r["group"]) == ["every component"] * 2 + ["partial: without SO2"] * 2 \
         + ["no total"]
     assert r.loc[2, "years used"] == "2017 (1 of 2)"
+    # a site of the run without a span row (no year passes) is listed, unranked
+    r = ranking(span, "S", 2, sites=["a", "b", "c", "d", "e", "z"])
+    assert list(r["site"])[-2:] == ["e", "z"] and list(r["group"])[-1] == "no total"
+    assert r.iloc[-1]["years used"] == "none" and r.iloc[-1]["rank"] == ""
 
 
 def test_notes_are_grouped_by_cause_and_keep_what_differs():

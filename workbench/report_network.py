@@ -67,7 +67,7 @@ def _years(text) -> list:
 
 
 def site_summary(span: pd.DataFrame, catalogue, n_periods: int, trends=None,
-                 exceedance=None) -> pd.DataFrame:
+                 exceedance=None, sites=None) -> pd.DataFrame:
     """One row per site on its own surface: whole-span S and N [kg/ha/yr] with status,
     the years used, the Sen slopes [% per yr] of the annual totals and the acidity
     exceedance [eq/ha/yr].
@@ -83,6 +83,9 @@ def site_summary(span: pd.DataFrame, catalogue, n_periods: int, trends=None,
         :func:`workbench.analysis.trends.trend_table` rows (``values == "all"``).
     exceedance : pandas.DataFrame, optional
         Span rows of :func:`workbench.analysis.exceedance.exceedance_table`.
+    sites : list of str, optional
+        The run's sites: one without a span row (no year passes completeness) gets a
+        row saying so, in this order.
     """
     names = {s.id: getattr(s, "name", "") or "" for s in catalogue}
     rows = []
@@ -117,15 +120,25 @@ def site_summary(span: pd.DataFrame, catalogue, n_periods: int, trends=None,
             if len(ex):
                 row["acidity exceedance [eq/ha/yr]"] = ex.iloc[0]["ex_acidity_eq_ha_yr"]
         rows.append(row)
+    own = {s.id: s.land_use for s in catalogue}
+    done = {r["site"] for r in rows}
+    rows += [{"site": s, "name": names.get(s, ""), "surface": own.get(s, ""),
+              "S status": "no total (no year passes completeness)",
+              "N status": "no total (no year passes completeness)"}
+             for s in (sites or []) if s not in done]
+    if sites:
+        order = {s: i for i, s in enumerate(sites)}
+        rows.sort(key=lambda r: order.get(r["site"], len(order)))
     return pd.DataFrame(rows)
 
 
-def ranking(span: pd.DataFrame, element: str, n_periods=None) -> pd.DataFrame:
+def ranking(span: pd.DataFrame, element: str, n_periods=None, sites=None) -> pd.DataFrame:
     """Sites ranked by their whole-span total of `element`, on equal footing only.
 
     Totals holding every component (:data:`FULL_SET`) are ranked together; partial
     totals are ranked apart, in one group per set of missing components (sites without
-    NO2 among themselves); a site without a total is listed last, unranked.
+    NO2 among themselves); a site without a total is listed last, unranked, and so is
+    each of `sites` (the run's) without a span row (no year passes completeness).
 
     Returns
     -------
@@ -135,6 +148,11 @@ def ranking(span: pd.DataFrame, element: str, n_periods=None) -> pd.DataFrame:
         (empty for the unranked).
     """
     e = span[span["element"] == element].copy()
+    absent = [s for s in (sites or []) if s not in set(e["site"].astype(str))]
+    if absent:
+        e = pd.concat([e, pd.DataFrame({"site": absent, "element": element,
+                                        "flux_kg_ha_yr": np.nan, "status": "missing",
+                                        "years_used": None})], ignore_index=True)
     miss = e["missing_components"].fillna("").astype(str) if "missing_components" in e \
         else pd.Series("", index=e.index)
     full = e["status"].astype(str).isin(FULL_SET) & np.isfinite(e["flux_kg_ha_yr"])
@@ -156,7 +174,7 @@ def ranking(span: pd.DataFrame, element: str, n_periods=None) -> pd.DataFrame:
     return out[["group", "rank", "site", "value", "status", "years used"]].reset_index(drop=True)
 
 
-def ranking_html(span: pd.DataFrame, table_html, n_periods=None) -> list:
+def ranking_html(span: pd.DataFrame, table_html, n_periods=None, sites=None) -> list:
     """The S and N rankings side by side, each group under its own heading."""
     out = ["<h2 id='ranking'>Ranking of the sites: whole-span totals on their own surface "
            "[kg/ha/yr of S or N]</h2>",
@@ -168,7 +186,7 @@ def ranking_html(span: pd.DataFrame, table_html, n_periods=None) -> list:
            "holds (years used) average other years than the rest: read them with care.</p>",
            "<div style='display:flex;gap:2em;flex-wrap:wrap'>"]
     for el in ("S", "N"):
-        r = ranking(span, el, n_periods)
+        r = ranking(span, el, n_periods, sites)
         out.append(f"<div><h3>{el}</h3>")
         for group, g in r.groupby("group", sort=False):
             out.append(f"<p><b>{html.escape(group)}</b> ({len(g)} site"
@@ -324,7 +342,8 @@ def network_section(result, study, span_all, exceedance, table_html) -> tuple:
     tr = tr[tr["values"] == "all"] if len(tr) else None
     ex = own_surface_rows(exceedance[exceedance["period"] == "span"], cat) \
         if exceedance is not None and len(exceedance) else None
-    summ = site_summary(span, cat, n_periods, tr, ex)
+    sites = [str(s) for s in result.years["site"].values]
+    summ = site_summary(span, cat, n_periods, tr, ex, sites)
     n_sites = len(summ)
     out = ["<h2 id='sites'>The sites of the network</h2>",
            f"<p>{n_sites} sites, each on its own surface (its land use in sites.toml); "
@@ -334,7 +353,7 @@ def network_section(result, study, span_all, exceedance, table_html) -> tuple:
            "Every receptor of every site is in the folded tables below and in budget.csv, "
            "summary.csv and exceedance.csv.</p>",
            table_html(summ)]
-    out.extend(ranking_html(span, table_html, n_periods))
+    out.extend(ranking_html(span, table_html, n_periods, sites))
     first = True
     if len(span):
         out.append(pio.to_html(network_figure(span), include_plotlyjs="inline",
