@@ -173,3 +173,22 @@ def test_check_names_the_sites_a_data_file_does_not_hold(tmp_path, capsys):
     line = [ln for ln in out.splitlines() if ln.startswith("note: 2 sites of sites.toml")]
     assert line == ["note: 2 sites of sites.toml with no record at all (in no data file): "
                     "mere, farm; their budgets will be missing"]
+
+
+def test_scheme_and_nh3_tables_fold_in_a_network():
+    from types import SimpleNamespace
+    from workbench.report import _nh3_html, _schemes_html
+    n = 45
+    rows = pd.DataFrame({"site": [f"s{i:02d}" for i in range(n)] * 2, "receptor": "grass",
+                         "element": "S", "species": "all", "pathway": "total",
+                         "period": "span", "flux_kg_ha_yr": 1.0, "status": "complete",
+                         "scheme": ["a"] * n + ["b"] * n})
+    assert "<details>" in "".join(_schemes_html(rows, network=True))
+    assert "<details>" not in "".join(_schemes_html(rows))
+    t = pd.DataFrame({"site": [f"s{i:02d}" for i in range(n)], "receptor": "grass",
+                      "species": "NH3", "period": "2020", "flux_kg_ha": -0.1,
+                      "nh3_deposition_only_kg_ha": 0.2, "nh3_figure": "net",
+                      "status": "flagged", "note": ""})
+    res = SimpleNamespace(table=t)
+    assert "<details><summary>Show every period (45 rows)" in "".join(_nh3_html(res, True))
+    assert "<details>" not in "".join(_nh3_html(res))

@@ -173,8 +173,9 @@ def _settings_html(result, all_schemes) -> str:
     return f"<p class='settings'>{text}.</p>"
 
 
-def _schemes_html(all_schemes) -> list:
-    """Whole-span S and N totals under each gas scheme, side by side."""
+def _schemes_html(all_schemes, network=False) -> list:
+    """Whole-span S and N totals under each gas scheme, side by side (folded when long
+    in the `network` layout)."""
     if all_schemes is None:
         return []
     t = all_schemes
@@ -197,11 +198,13 @@ def _schemes_html(all_schemes) -> list:
             "uncertainty of dry deposition (two published schemes, both defensible). "
             "budget.csv has every row of every scheme (column <code>scheme</code>); "
             "summary.csv, budget.nc and the rest of this report are the chosen scheme's.</p>",
-            _table_html(out.reset_index())]
+            fold(_table_html(out.reset_index()), len(out), "every site and receptor")
+            if network else _table_html(out.reset_index())]
 
 
-def _nh3_html(result) -> list:
-    """NH3 net exchange beside the deposition-only figure, per period (bidirectional)."""
+def _nh3_html(result, network=False) -> list:
+    """NH3 net exchange beside the deposition-only figure, per period (bidirectional;
+    folded when long in the `network` layout)."""
     t = result.table
     if "nh3_deposition_only_kg_ha" not in t:
         return []
@@ -217,7 +220,8 @@ def _nh3_html(result) -> list:
             "<p>The N totals above use the net (negative: the canopy emits). A period whose "
             "net is an emission while its deposition-only figure is a deposition is "
             "<b>flagged</b> (<code>nh3_net_emission</code>): its total N is not "
-            "deposition-only.</p>", _table_html(frame)]
+            "deposition-only.</p>", fold(_table_html(frame), len(frame), "every period")
+            if network else _table_html(frame)]
 
 
 def _run_line(scenario) -> str:
@@ -269,8 +273,8 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     pivot = _pivot_html(per)
     parts.append(fold(pivot, per[["site", "receptor", "element"]].drop_duplicates().shape[0],
                       "the totals of every site, receptor and period") if network else pivot)
-    parts.extend(_schemes_html(all_schemes))
-    parts.extend(_nh3_html(result))
+    parts.extend(_schemes_html(all_schemes, network))
+    parts.extend(_nh3_html(result, network))
     from .analysis.uncertainty import report_section
     parts.extend(report_section(t, _table_html))
     parts.append("<h2>Dry nitrogen: the gas/particle bracket [kg N/ha per period]</h2>")
