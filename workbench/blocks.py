@@ -44,6 +44,42 @@ __all__ = ["ClusterStart", "close_client", "run_blocks", "run_network", "site_bl
            "start_client", "wanted_blocks", "wants_blocks"]
 
 
+def _n_sites(n) -> str:
+    """``1 site``, ``2 sites``."""
+    return f"{n} site" + ("" if n == 1 else "s")
+
+
+def blocks_with_met(wanted, inputs, receptors) -> list:
+    """`wanted` (:func:`wanted_blocks`) with each block whose sites have no hour of met
+    (a site listed in sites.toml before its first record) joined to the first block
+    that has some, its surfaces added in the network's order: such a block alone has
+    an empty met table, which the dry chain cannot take; in a whole run, and so here,
+    those sites' dry budgets are missing.  Unchanged when every block has met or none
+    has.
+
+    >>> from types import SimpleNamespace as S
+    >>> import xarray as xr
+    >>> inp = S(met=xr.Dataset(coords={"site": ["a", "b"]}))
+    >>> blocks_with_met([(["a"], ("grass",)), (["n"], ("crops",)), (["b"], ("grass",))],
+    ...                 inp, ["grass", "crops"])
+    [(['a', 'n'], ('grass', 'crops')), (['b'], ('grass',))]
+    """
+    met = getattr(inputs, "met", None)
+    have = set(met["site"].values.astype(str)) if met is not None and "site" in met.coords \
+        else set()
+    has = [any(s in have for s in sites) for sites, _ in wanted]
+    if all(has) or not any(has):
+        return list(wanted)
+    host = has.index(True)
+    out = [(list(sites), tuple(recs)) for sites, recs in wanted]
+    for i, (sites, recs) in enumerate(wanted):
+        if not has[i]:
+            hs, hr = out[host]
+            joined = set(hr) | set(recs)
+            out[host] = (hs + list(sites), tuple(r for r in receptors if r in joined))
+    return [b for b, h in zip(out, has) if h]
+
+
 def site_blocks(sites, block_sites=None) -> list:
     """The site ids in consecutive blocks of at most `block_sites` (None: one block).
 
@@ -364,7 +400,8 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
             "resolution": resolution, "start": start, "end": end}
     receptors = whole.receptors()
     # blocks of sites asking for the same surfaces: only wanted pairs are computed
-    wanted = wanted_blocks(whole.catalogue(), receptors, block_sites)
+    wanted = blocks_with_met(wanted_blocks(whole.catalogue(), receptors, block_sites),
+                             inputs, receptors)
     blocks = [sites for sites, _ in wanted]
     block_args = [{**args, "receptors": recs} for _, recs in wanted]
     precip = inputs.precipitation
@@ -385,14 +422,15 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
         def one(i):
             return run_block(block_inputs(inputs, blocks[i]), site_overrides, block_args[i],
                              keep_velocities)
+        finished = itertools.count(1)      # blocks end out of order on threads: count them
         if n_threads <= 1:
             for i, sites in enumerate(blocks):
                 done[i] = one(i)
-                say(f"block {i + 1}/{len(blocks)} ({len(sites)} sites)")
+                say(f"block {next(finished)}/{len(blocks)} done ({_n_sites(len(sites))})")
         else:
             _run_on_threads(one, done, n_threads,
-                            lambda i: say(f"block {i + 1}/{len(blocks)} "
-                                          f"({len(blocks[i])} sites)"))
+                            lambda i: say(f"block {next(finished)}/{len(blocks)} done "
+                                          f"({_n_sites(len(blocks[i]))})"))
     else:
         from .optional import require
         distributed = require("distributed")
@@ -422,7 +460,7 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
             i = futures.pop(fut)
             done[i] = fut.result()      # a failed block raises its error here
             fut.release()
-            say(f"block {n}/{len(blocks)} done ({len(blocks[i])} sites)")
+            say(f"block {n}/{len(blocks)} done ({_n_sites(len(blocks[i]))})")
             nxt = submit()
             if nxt is not None:
                 queue.add(nxt)

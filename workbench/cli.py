@@ -32,6 +32,12 @@ def demo_folder() -> Path:
 
 DEMO_SCENARIO = demo_folder() / "scenario.toml"
 
+#: Largest default block of a run in blocks in this process [site-years]: the peak
+#: memory of a block grows with its site-years (about 290 MB + 43 MB a site-year on the
+#: 30-site, 10-year network of benchmarks/analyst_network.py, docs/performance.md), so a
+#: long record gets blocks of fewer sites than :data:`workbench.blocks.DEFAULT_MAX_BLOCK`.
+BLOCK_SITE_YEARS = 20
+
 #: Reporting resolutions of ``workbench run --resolution`` (as ``[period] resolution``).
 RESOLUTIONS = ("year", "hydro_year", "season", "month")
 
@@ -80,10 +86,57 @@ def cmd_check(args) -> int:
     from .preflight import prepare
     prep = prepare(args.scenario, progress=_progress(args.quiet))
     print(f"scenario: {prep.scenario.path}")
-    print(prep.study.inputs.describe())
+    print(_inputs_text(prep.study.inputs))
+    for line in absent_site_lines(prep.study.inputs):
+        print(line)
     print()
     print(prep.describe())
     return 0
+
+
+def absent_site_lines(inputs) -> list[str]:
+    """Sites of sites.toml that a data file does not hold, for ``workbench check``: one
+    line per set of absent inputs, naming the sites (their budgets will miss what those
+    files give).  Empty when every site is in every file that was given."""
+    import numpy as np
+    have = {}
+    for role, ds in (("precipitation samples", inputs.precipitation),
+                     ("air concentrations", inputs.air), ("met hours", inputs.met)):
+        if ds is not None and "site" in ds.variables:
+            have[role] = set(np.unique(ds["site"].values.astype(str)))
+    if not have:
+        return []
+    by = {}
+    for sid in inputs.catalogue.ids:
+        gone = tuple(r for r, ids in have.items() if str(sid) not in ids)
+        if gone:
+            by.setdefault(gone, []).append(str(sid))
+    lines = []
+    for gone, sites in by.items():
+        every = len(gone) == len(have)
+        what = "no record at all (in no data file)" if every else "no " + " and no ".join(gone)
+        lines.append(f"note: {len(sites)} site{'s' if len(sites) > 1 else ''} of sites.toml "
+                     f"with {what}: {', '.join(sites)}; "
+                     + ("its budgets will be missing" if every and len(sites) == 1 else
+                        "their budgets will be missing" if every else
+                        "the parts of the budget those files give will be missing"))
+    return lines
+
+
+def _inputs_text(inputs) -> str:
+    """``inputs.describe()``; for a network of more than
+    :data:`workbench.report_network.NETWORK_SITES` sites with its closing notes grouped
+    by site (:func:`workbench.report_network.grouped_free_notes`: "met v01: complete
+    hourly record ... — the same at 21 more sites: ...")."""
+    from .report_network import NETWORK_SITES, grouped_free_notes
+    text = inputs.describe()
+    notes = list(inputs.ledger.notes)
+    ids = list(inputs.catalogue.ids)
+    block = "\nnotes:\n" + "\n".join(f"  {n}" for n in notes)
+    if len(ids) <= NETWORK_SITES or not notes or not text.endswith(block):
+        return text
+    return text[:-len(block)] + "\nnotes:\n" + "\n".join(
+        f"  {n}" for n in grouped_free_notes(notes, ids))
 
 
 def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=None,
@@ -114,8 +167,11 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
         # are read; closed after the blocks, or after an error here
         cluster = _early_cluster(sc, workers, scheduler)
         steps = ["sites", "precipitation", "air", "met", "budget", "outputs"]
+        # no time left is shown: the steps take unequal times (the blocks most of a
+        # network's run), so tqdm's estimate read "2 s left" for a minute
         bar = tqdm(total=len(steps), desc="workbench", disable=quiet, delay=1.0,
-                   file=sys.stderr)
+                   file=sys.stderr,
+                   bar_format="{l_bar}{bar}| {n_fmt}/{total_fmt} [{elapsed}{postfix}]")
 
         def step(text):
             bar.set_postfix_str(text)
@@ -132,6 +188,8 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
             if wants_blocks(len(study.inputs.catalogue.ids), workers, scheduler, block_sites,
                             getattr(unc, "draws", 0) if unc is not None else 0):
                 from .blocks import run_network
+                if block_sites is None and not workers and not scheduler:
+                    block_sites = default_block_sites(len(prep.years))
                 result = run_network(*args, sc=sc, workers=workers, scheduler=scheduler,
                                      block_sites=block_sites, progress=bar.set_postfix_str,
                                      cluster=cluster)
@@ -148,6 +206,18 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
             if cluster is not None:
                 cluster.close()
     return written, result, study
+
+
+def default_block_sites(n_years) -> int:
+    """Sites per block of a run in blocks in this process without ``--block-sites``:
+    :data:`workbench.blocks.DEFAULT_MAX_BLOCK`, fewer when a block of them would hold
+    more than :data:`BLOCK_SITE_YEARS` site-years (at least 1).
+
+    >>> default_block_sites(2), default_block_sites(10), default_block_sites(30)
+    (4, 2, 1)
+    """
+    from . import blocks
+    return max(1, min(blocks.DEFAULT_MAX_BLOCK, BLOCK_SITE_YEARS // max(1, int(n_years))))
 
 
 def _early_cluster(sc, workers, scheduler):
@@ -171,6 +241,8 @@ def cmd_run(args) -> int:
     for name in written:
         print(f"  {name}")
     for line in status_lines(result.table, study.inputs):
+        print(line)
+    for line in site_status_lines(result.table):
         print(line)
     return 0
 
@@ -200,6 +272,46 @@ def status_lines(table, inputs) -> list[str]:
         lines.append("warning: every budget is missing")
         if start is not None and end is not None:
             lines.extend("  " + c for c in coverage_notes(inputs, start, end))
+    return lines
+
+
+def site_status_lines(table, min_sites=None) -> list[str]:
+    """Where a network's totals are not complete, for the console: one line per element,
+    status and set of missing components, naming the sites (with the periods, where not
+    every period).  Empty for a run of at most `min_sites` sites (default
+    :data:`workbench.report_network.NETWORK_SITES`), whose few sites the report shows
+    one by one.
+
+    A site counts when any of its receptors has that status in that period."""
+    from .report_network import NETWORK_SITES, year_span
+    min_sites = NETWORK_SITES if min_sites is None else min_sites
+    t = table[(table["period"].astype(str) != "span") & (table["species"] == "all")
+              & (table["pathway"] == "total")]
+    if t.empty or t["site"].nunique() <= min_sites:
+        return []
+    every = set(t["period"].astype(str))
+    miss = t["missing_components"].fillna("").astype(str) if "missing_components" in t \
+        else ""
+    t = t.assign(_miss=miss, _period=t["period"].astype(str), _status=t["status"].astype(str))
+    words = {"partial": "partial", "flagged": "flagged (read with care: report.html says why)",
+             "missing": "missing (no data)"}
+    lines = []
+    for el in ("S", "N"):
+        for status, word in words.items():
+            g = t[(t["element"] == el) & (t["_status"] == status)]
+            if status != "partial":            # missing: every component; flagged: kept
+                g = g.assign(_miss="")
+            for m, gm in g.groupby("_miss", sort=True):
+                sites = []
+                for site, gs in gm.groupby("site", sort=False):
+                    ps = set(gs["_period"])
+                    sites.append(f"{site}" if ps == every else f"{site} ({year_span(ps)})")
+                what = f"{el} {word}" + (f" without {', '.join(m.split())}" if m else "")
+                lines.append(f"  {what}: {len(sites)} site{'s' if len(sites) > 1 else ''}: "
+                             + ", ".join(sites))
+    if lines:
+        lines.insert(0, "sites whose totals are not complete (a site counts when any "
+                     "receptor is; summary.csv has each; no period named = every period):")
     return lines
 
 
@@ -299,7 +411,8 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--block-sites", type=_positive, default=None, metavar="K",
                    # blocks.DEFAULT_MAX_BLOCK and AUTO_BLOCK_SITES (not imported here:
                    # the parser stays light; tests/test_cli.py holds the text to them)
-                   help="sites per block (default 4; a network of more than 20 sites is "
+                   help="sites per block (default 4; fewer for a long record, at most "
+                   "20 site-years a block; a network of more than 20 sites is "
                    "computed in blocks without this option); in block mode velocities.nc "
                    "is not written")
     r.set_defaults(func=cmd_run)

@@ -181,13 +181,15 @@ class Study:
         the latest end (the met record when there is no chemistry)."""
         starts, ends = [], []
         for ds in (self.inputs.precipitation, self.inputs.air):
-            if ds is not None:
-                starts.append(ds["start"].values.min())
+            if ds is not None and ds["start"].size:      # a block of sites without any
+                starts.append(ds["start"].values.min())   # sample has an empty table
                 ends.append(ds["end"].values.max())
-        if not starts and self.inputs.met is not None:
+        if not starts and self.inputs.met is not None and self.inputs.met["time"].size:
             t = self.inputs.met["time"].values
             starts.append(t[0] - np.timedelta64(1, "h"))
             ends.append(t[-1])
+        if not starts:                # no record at all: the run's start and end decide
+            return None, None
         return min(starts), max(ends)
 
     # ---------------------------------------------------------------- graph nodes

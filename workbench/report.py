@@ -9,6 +9,8 @@ import pandas as pd
 
 from . import __version__
 from .budget import OMISSIONS
+from .report_network import (NETWORK_SITES, fold, grouped_free_notes, grouped_notes,
+                             network_section)
 
 CAUTION = (
     "Deposition estimates are model-based and uncertain. Dry deposition is inferred from "
@@ -82,10 +84,12 @@ def _pivot_html(per: pd.DataFrame) -> str:
     return wide.reset_index().to_html(index=False, border=0, classes="tab", na_rep="–")
 
 
-def _exceedance_html(result, study) -> list:
-    """The span's critical-load exceedances (exceedance.csv has every year)."""
+def _exceedance_html(result, study, network=False, ex=None) -> list:
+    """The span's critical-load exceedances (exceedance.csv has every year); folded when
+    long in the `network` layout.  `ex`: the exceedance table, if already computed."""
     from .analysis.exceedance import REGIONS, exceedance_table
-    ex = exceedance_table(result, study.catalogue())
+    if ex is None:
+        ex = exceedance_table(result, study.catalogue())
     out = ["<h2>Critical-load exceedance: mean of the years that pass completeness "
            "[eq/ha/yr]</h2>"]
     span = ex[ex["period"] == "span"]
@@ -99,11 +103,13 @@ def _exceedance_html(result, study) -> list:
                "loads carry their own uncertainty.</p>")
     cols = ["site", "receptor", "s_dep_eq_ha_yr", "n_dep_eq_ha_yr", "ex_acidity_eq_ha_yr",
             "region", "ex_nutrient_n_eq_ha_yr", "status", "note"]
-    out.append(_table_html(span[cols]))
+    table = _table_html(span[cols])
+    out.append(fold(table, len(span), "the exceedance of every site and receptor")
+               if network else table)
     return out
 
 
-def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES) -> tuple:
+def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES, network=False) -> tuple:
     """Sen slopes of the annual S and N totals on each site's own surface, with a figure
     each for the first `max_sites` sites (trends.csv has every component, the monthly
     tests and the notes)."""
@@ -124,10 +130,15 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES) -> tuple:
     if tr.empty:
         return out + ["<p>No annual totals.</p>"], first
     tr = tr[tr["values"] == "all"]
-    out.append(_table_html(tr[["site", "receptor", "element", "n_years", "tau", "p_value",
-                               "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid", "note"]].rename(
+    table = _table_html(tr[["site", "receptor", "element", "n_years", "tau", "p_value",
+                            "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid", "note"]].rename(
         columns={"sen_slope_per_yr": "Sen slope [kg/ha/yr per yr]",       # S or N, as the
-                 "sen_slope_pct_per_yr": "Sen slope [% per yr]"})))      # element says
+                 "sen_slope_pct_per_yr": "Sen slope [% per yr]"}))      # element says
+    if network:       # the slopes are in the table of the sites; one figure per site
+        return out + ["<p>Each site's slopes are in the table of the sites at the top; "   # no
+                      "per-site trend figures in a network report.</p>",
+                      fold(table, len(tr), "the trend test of every site")], first
+    out.append(table)
     sites = list(dict.fromkeys(tot["site"]))
     shown = set(sites[:max_sites])
     out.append(_figures_limited(len(sites), len(shown), "Trend figures are"))
@@ -162,8 +173,9 @@ def _settings_html(result, all_schemes) -> str:
     return f"<p class='settings'>{text}.</p>"
 
 
-def _schemes_html(all_schemes) -> list:
-    """Whole-span S and N totals under each gas scheme, side by side."""
+def _schemes_html(all_schemes, network=False) -> list:
+    """Whole-span S and N totals under each gas scheme, side by side (folded when long
+    in the `network` layout)."""
     if all_schemes is None:
         return []
     t = all_schemes
@@ -186,11 +198,13 @@ def _schemes_html(all_schemes) -> list:
             "uncertainty of dry deposition (two published schemes, both defensible). "
             "budget.csv has every row of every scheme (column <code>scheme</code>); "
             "summary.csv, budget.nc and the rest of this report are the chosen scheme's.</p>",
-            _table_html(out.reset_index())]
+            fold(_table_html(out.reset_index()), len(out), "every site and receptor")
+            if network else _table_html(out.reset_index())]
 
 
-def _nh3_html(result) -> list:
-    """NH3 net exchange beside the deposition-only figure, per period (bidirectional)."""
+def _nh3_html(result, network=False) -> list:
+    """NH3 net exchange beside the deposition-only figure, per period (bidirectional;
+    folded when long in the `network` layout)."""
     t = result.table
     if "nh3_deposition_only_kg_ha" not in t:
         return []
@@ -206,7 +220,8 @@ def _nh3_html(result) -> list:
             "<p>The N totals above use the net (negative: the canopy emits). A period whose "
             "net is an emission while its deposition-only figure is a deposition is "
             "<b>flagged</b> (<code>nh3_net_emission</code>): its total N is not "
-            "deposition-only.</p>", _table_html(frame)]
+            "deposition-only.</p>", fold(_table_html(frame), len(frame), "every period")
+            if network else _table_html(frame)]
 
 
 def _run_line(scenario) -> str:
@@ -219,11 +234,15 @@ def _run_line(scenario) -> str:
             "provenance.json")
 
 
-def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURES) -> str:
+def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURES,
+                  network_sites=NETWORK_SITES) -> str:
     """HTML text of the report: budget tables, figures, QA summary, omissions, cautions.
 
     Figures of single sites are drawn for the first `max_site_figures` sites [1]; the
-    tables keep every site."""
+    tables keep every site.  With more than `network_sites` sites the report opens with
+    the network sections (:mod:`workbench.report_network`: a table of the sites, the
+    rankings, a figure of every site), groups the notes by cause and folds the long
+    tables; it draws no per-site figures then."""
     import plotly.io as pio
     from .ui.figures import budget_bars
     from .comparison import chosen_scheme
@@ -232,22 +251,30 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     t = result.table
     totals = t[(t["species"] == "all") & (t["pathway"] == "total")]
     span = totals[totals["period"] == "span"]
+    network = len(result.years["site"]) > network_sites
+    ex = None
+    if network:
+        from .analysis.exceedance import exceedance_table
+        ex = exceedance_table(result, study.catalogue())
+        net, first = network_section(result, study, span, ex, _table_html)
+        parts.extend(net)
+    whole = ("<p>No year passes completeness.</p>" if span.empty else _table_html(
+        span[["site", "receptor", "element", "flux_kg_ha_yr", "flux_eq_ha_yr", "status",
+              "years_used", "years_excluded"]]))
     parts.append("<h2>Whole span: mean of the years that pass completeness</h2>")
-    if len(span):
-        parts.append(_table_html(span[["site", "receptor", "element", "flux_kg_ha_yr",
-                                       "flux_eq_ha_yr", "status", "years_used", "years_excluded"]]))
-    else:
-        parts.append("<p>No year passes completeness.</p>")
-    parts.extend(_exceedance_html(result, study))
+    parts.append(fold(whole, len(span), "every site and receptor") if network else whole)
+    parts.extend(_exceedance_html(result, study, network, ex))
     parts.append("<h2>Totals per period [kg/ha/yr of S or N]</h2>")
     parts.append("<p>Marks: <b>f</b> flagged (fails completeness, or holds something to read with "
                  "care: the notes below say which), <b>p</b> partial (a "
                  "component has no data), <b>~</b> filled, <b>–</b> missing. Exact values, "
                  "eq/ha and every component are in budget.csv.</p>")
     per = totals[totals["period"] != "span"]
-    parts.append(_pivot_html(per))
-    parts.extend(_schemes_html(all_schemes))
-    parts.extend(_nh3_html(result))
+    pivot = _pivot_html(per)
+    parts.append(fold(pivot, per[["site", "receptor", "element"]].drop_duplicates().shape[0],
+                      "the totals of every site, receptor and period") if network else pivot)
+    parts.extend(_schemes_html(all_schemes, network))
+    parts.extend(_nh3_html(result, network))
     from .analysis.uncertainty import report_section
     parts.extend(report_section(t, _table_html))
     parts.append("<h2>Dry nitrogen: the gas/particle bracket [kg N/ha per period]</h2>")
@@ -272,11 +299,18 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
                      "pair (docs/budget.md); a bracket shown as – has a pair member without "
                      "data in that period (budget.nc's bracket_*_note says which reason); the "
                      "measured figure stands.</p>")
-        parts.append(_table_html(frame[["site", "receptor", "period", "dry_N_as_measured_kg_ha",
-                                        "status", "missing_components", *cols]]))
+        bracket = _table_html(frame[["site", "receptor", "period", "dry_N_as_measured_kg_ha",
+                                     "status", "missing_components", *cols]])
+        parts.append(fold(bracket, len(frame), "the bracket of every site, receptor and period")
+                     if network else bracket)
     notes_col = t["note"].dropna() if "note" in t else pd.Series(dtype=str)
     notes_col = notes_col[notes_col != ""]
-    if len(notes_col):
+    if len(notes_col) and network:
+        parts.append("<h2>Notes on components</h2><p>Grouped by species and cause, the "
+                     "sites and periods each holds for; every note is in budget.csv.</p><ul>")
+        parts.extend(grouped_notes(t.loc[notes_col.index]))
+        parts.append("</ul>")
+    elif len(notes_col):
         parts.append("<h2>Notes on components</h2><ul>")
         for (site, sp, note), g in t.loc[notes_col.index].groupby(["site", "species", "note"]):
             # the periods it holds for: the same words with other numbers read as repeats
@@ -284,14 +318,15 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
             parts.append(f"<li>{html.escape(site)} {html.escape(sp)}{html.escape(when)}: "
                          f"{html.escape(note)}</li>")
         parts.append("</ul>")
-    parts.append("<h2>Figures</h2>")
-    first = True
     ds = result.years
     last_year = str(ds["period"].values[-1])
     sites = ds["site"].values
-    parts.append(_figures_limited(len(sites), min(len(sites), max_site_figures),
-                                  "Budget figures are"))
-    for site in sites[:max_site_figures]:
+    if not network:
+        parts.append("<h2>Figures</h2>")
+        first = True
+        parts.append(_figures_limited(len(sites), min(len(sites), max_site_figures),
+                                      "Budget figures are"))
+    for site in ([] if network else sites[:max_site_figures]):
         rec = [r for r in ds["receptor"].values if bool(ds["active"].sel(site=site, receptor=r))]
         for r in rec[:1]:
             year = last_year
@@ -302,7 +337,7 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
             parts.append(pio.to_html(fig, include_plotlyjs="inline" if first else False,
                                      full_html=False))
             first = False
-    trend_parts, first = _trend_html(result, study, first, max_site_figures)
+    trend_parts, first = _trend_html(result, study, first, max_site_figures, network)
     parts.extend(trend_parts)
     parts.append("<h2>Precipitation-chemistry QA</h2>")
     if result.screened is not None:
@@ -322,13 +357,19 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
         parts.append("<p>Reasons of the flagged and rejected rows (a row may have several; "
                      "samples.csv has them per precipitation sample):</p>")
         parts.append(_table_html(reasons))
-    if study.inputs.ledger.notes:
-        parts.append("<ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in study.inputs.ledger.notes) + "</ul>")
+    led_notes = study.inputs.ledger.notes
+    if led_notes and network:
+        led_notes = grouped_free_notes(led_notes, sites.astype(str))
+    if led_notes:
+        parts.append("<ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in led_notes) + "</ul>")
     parts.append("<h2>What the budget leaves out</h2><ul>")
     parts.extend(f"<li><b>{html.escape(a)}</b>: {html.escape(b)}</li>" for a, b in OMISSIONS)
     parts.append("</ul>")
-    if result.notes:
-        parts.append("<h2>Notes</h2><ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in result.notes) + "</ul>")
+    run_notes = result.notes
+    if run_notes and network:
+        run_notes = grouped_free_notes(run_notes, sites.astype(str))
+    if run_notes:
+        parts.append("<h2>Notes</h2><ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in run_notes) + "</ul>")
     from .scenario import _plain
     opts = {k: _plain(v) for k, v in result.options.items()}
     parts.append("<h2>Options in force</h2><details><summary>Show the options of this run "
