@@ -6,13 +6,14 @@ draw is a few matrix products per site and never re-runs the engine:
 * dry component of species *k* at site *s*, reporting period *p*, receptor *r*:
 
   .. math:: D^{(d)}_{srpk} = F^{(d)}_{s,y(p),k} \\sum_n A_{npr}\\,
-            \\delta^{(d)}_n \\,(1 + \\phi_{nr} \\eta^{(d)}_n)
+            \\delta^{(d)}_n \\,(1 + \\phi_{npr} \\eta^{(d)}_n)
 
   with :math:`A` the sampling period's contribution, :math:`F` the Vd model factor
   (log-normal, median 1, systematic within a site-year, correlated among species
   through the shared micrometeorology), :math:`\\delta` the analytical error of the
-  sample (random per sample), :math:`\\phi` the share of its hours with a gap-filled
-  Vd and :math:`\\eta` the error of the fill (random per sample);
+  sample (random per sample), :math:`\\phi` the share of its hours in the period
+  whose Vd is not modelled (gap-filled, or missing; the budget's reckoning) and
+  :math:`\\eta` the error of the fill (random per sample);
 * wet component of ion *X*: :math:`D = \\bar C_p P_p` with, per draw,
 
   .. math:: P_p = g_{s,y(p)} \\sum_i w_{ip} \\varepsilon_i, \\quad
@@ -264,7 +265,7 @@ def dry_ratio(pieces, vd_factor, air, vd_fill):
     Parameters
     ----------
     pieces : DryPieces
-        ``contrib`` (n, P, R) [mol m-2], ``filled`` (n, R) [1].
+        ``contrib`` (n, P, R) [mol m-2], ``filled`` (n, P, R) [1].
     vd_factor : ndarray (D, P)
         Vd factor of each draw and period [1].
     air : ndarray (D, n)
@@ -276,7 +277,7 @@ def dry_ratio(pieces, vd_factor, air, vd_fill):
     n, n_p, n_r = a.shape
     flat = a.reshape(n, n_p * n_r)
     total = flat.sum(0)
-    dev = (air - 1.0) @ flat + (air * vd_fill) @ (pieces.filled[:, None, :] * a).reshape(n, -1)
+    dev = (air - 1.0) @ flat + (air * vd_fill) @ (pieces.filled * a).reshape(n, -1)
     # >= 0 as every factor is (1 - sum/sum can round to -1e-19 when every sample's
     # factor is cut to 0, which would read as a net emission)
     ratio = np.maximum(1.0 + _safe_ratio(dev, total), 0.0)
