@@ -144,6 +144,9 @@ def mann_kendall_batch(x, t, alpha) -> dict:
     none = n < 2                         # no pair of values: no test (not p = 1)
     s, var_s, z, p = (np.where(none, np.nan, v) for v in (s, var_s, z, p))
     z, p = (np.where(var_s == 0, np.nan, v) for v in (z, p))   # all values tied: no test
+    from .trends import exact_p
+    exact = exact_p(n, s, var_s)                   # few values, no ties: the exact p
+    p = np.where(np.isnan(exact), p, exact)
     with np.errstate(invalid="ignore", divide="ignore"):
         tau = np.where(n > 1, s / np.where(n > 1, n * (n - 1) / 2, 1.0), np.nan)
     med = median_rows(x)
