@@ -9,9 +9,9 @@ wrong.  This module takes the computed pieces of a run once and keeps, per site:
   ``A[n, P, R]`` [mol m-2] (:func:`workbench.dryflux.share_to_periods` with
   ``per_row``), whether its concentration was below detection, and the share of its
   hours in each reporting period whose Vd is not modelled ``phi[n, P, R]`` [1] (the
-  budget's reckoning, :func:`workbench.drycomponents.row_filled_hours`); under ``pair_split`` the species a
-  pair is moved into holds both members' sampling periods with its Vd, the other none
-  (:func:`workbench.drypairs.component_rows`);
+  budget's reckoning, :func:`workbench.drycomponents.row_filled_hours`); under
+  ``pair_split`` the species a pair is moved into holds both members' sampling periods
+  with its Vd, the other none (:func:`workbench.drypairs.component_rows`);
 * wet: each (sample, period) piece's precipitation weight ``w`` [mm], the sample's
   concentrations [mol m-3] and whether they were valid or below detection, and which
   periods had their PWM filled from the multi-year seasonal means.
