@@ -370,13 +370,8 @@ def covered_filled_share(site_index, a, b, c_fill, pa, pb, cn=None, known=None):
     imputed = np.zeros((n_s, n_p, n_r))
     behind = np.zeros((n_s, n_p, n_r))
     if len(a):
-        si = site_index[:, None]
-        lo = np.maximum(a[:, None], pa[None, :])          # (row, period)
-        hi = np.maximum(np.minimum(b[:, None], pb[None, :]), lo)
-        hours = (hi - lo).astype(float)[:, :, None]       # (row, period, 1)
-        part = c_fill[si, :, hi] - c_fill[si, :, lo]      # (row, period, R)
-        if cn is not None:
-            part = part + hours - (cn[si, :, hi] - cn[si, :, lo])
+        part, hours = row_filled_hours(site_index, a, b, c_fill, pa, pb, cn)
+        hours = hours[:, :, None]                         # (row, period, 1)
         w = (np.ones((len(a), 1, n_r)) if known is None
              else np.asarray(known, float)[:, None, :])
         np.add.at(imputed, site_index, part * w)
@@ -384,6 +379,42 @@ def covered_filled_share(site_index, a, b, c_fill, pa, pb, cn=None, known=None):
     with np.errstate(invalid="ignore", divide="ignore"):
         share = np.where(behind > 0, imputed / behind, np.nan)
     return share.transpose(0, 2, 1)
+
+
+def row_filled_hours(site_index, a, b, c_fill, pa, pb, cn=None):
+    """Each sampling period's hours in each reporting period, and those not modelled.
+
+    The per-row parts of :func:`covered_filled_share` (which sums them over a site's
+    rows), so that the Monte Carlo's share of gap-filled Vd per sampling period
+    (:mod:`workbench.analysis.layer`) is the budget's, not a second reckoning.
+
+    Parameters
+    ----------
+    site_index, a, b : ndarray of int (n,)
+        Site row and hour bounds of each sampling period (:func:`deposition_rows`).
+    c_fill : ndarray (S, R, T + 1)
+        Cumulative count of filled hours [1].
+    pa, pb : ndarray of int (P,)
+        Hour bounds of the reporting periods.
+    cn : ndarray (S, R, T + 1), optional
+        Cumulative count of the hours with a finite effective Vd (None: every hour).
+
+    Returns
+    -------
+    imputed : ndarray (n, P, R) [h]
+        Hours of the overlap whose Vd was filled or, missing, took the sampling
+        period's mean Vd.
+    hours : ndarray (n, P) [h]
+        Hours of the overlap on the hour axis.
+    """
+    si = site_index[:, None]
+    lo = np.maximum(a[:, None], pa[None, :])              # (row, period)
+    hi = np.maximum(np.minimum(b[:, None], pb[None, :]), lo)
+    hours = (hi - lo).astype(float)
+    part = c_fill[si, :, hi] - c_fill[si, :, lo]          # (row, period, R)
+    if cn is not None:
+        part = part + hours[:, :, None] - (cn[si, :, hi] - cn[si, :, lo])
+    return part, hours
 
 
 @_graph.stage("period_shares")

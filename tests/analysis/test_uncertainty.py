@@ -22,7 +22,7 @@ from workbench.analysis import uncertainty as U
 def _draws(tiny, n=4000, seed=3, **opts):
     _, _, res, lay = tiny
     opt = U.UncertaintyOptions(draws=n, seed=seed, **{**OFF, **opts})
-    noise = U.site_noise(lay.sites[0], opt, n, 1, 1, (seed, 0))
+    noise = U.site_noise(lay.sites[0], opt, n, 1, 1, (seed, "quill"), int(lay.period_year.min()))
     comp = U.component_draws(lay, 0, noise, int(lay.period_year.min()))
     return comp[:, 0, 0, :], U.totals_of(comp[:, 0, 0, :]), res.budget["deposition"].values[0, 0, 0]
 

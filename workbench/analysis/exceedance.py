@@ -12,11 +12,16 @@ Regions (our numbering, after the manual's figure):
 
 ====  ==============================================================================
 0     not exceeded: on or below the function
-1     nearest point on the flat part (N <= CLminN): reduce S only, Ex = S - CLmaxS
-2     nearest point is the corner (CLminN, CLmaxS): Ex = S + N - CLminN - CLmaxS
-3     nearest point on the sloping part: reduce S and N
+1     N <= CLminN, nearest point on the flat part: reduce S only, Ex = S - CLmaxS
+2     nearest point is the corner (CLminN, CLmaxS), N > CLminN:
+      Ex = S + N - CLminN - CLmaxS
+3     nearest point on the sloping part, not a corner: reduce S and N
 4     nearest point is the corner (CLmaxN, 0): Ex = S + N - CLmaxN
 ====  ==============================================================================
+
+A deposition exactly on the line between two regions has the same exceedance by
+either region's formula; its code is 1 where N = CLminN (region 1 is N <= CLminN, as
+in the manual), else that of the corner (2 or 4) where the nearest point is a corner.
 """
 from __future__ import annotations
 
@@ -116,7 +121,10 @@ def _acidity_numpy(s_dep, n_dep, cl_max_s, cl_min_n, cl_max_n):
     on_a = d_a <= d_b
     n_near = np.where(on_a, t_a * c0, c0 + t_b * slope)
     s_near = np.where(on_a, cs, cs * (1.0 - t_b))
-    region = np.select([on_a & (t_a < 1.0), on_a | (t_b == 0.0), t_b < 1.0], [1, 2, 3], 4)
+    # on a boundary between two regions: N <= CLminN is region 1 (the manual's rule,
+    # inclusive), else a point whose nearest point is a corner takes the corner's
+    # region (2 or 4)
+    region = np.select([n <= c0, on_a | (t_b == 0.0), t_b < 1.0], [1, 2, 3], 4)
     missing = np.isnan(s) | np.isnan(n) | np.isnan(cs) | np.isnan(c0) | np.isnan(c1)
     dn = np.where(inside, 0.0, np.maximum(n - n_near, 0.0))
     ds = np.where(inside, 0.0, np.maximum(s - s_near, 0.0))

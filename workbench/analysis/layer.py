@@ -8,9 +8,10 @@ wrong.  This module takes the computed pieces of a run once and keeps, per site:
 * dry: each air-sampling period's contribution to each reporting period and receptor
   ``A[n, P, R]`` [mol m-2] (:func:`workbench.dryflux.share_to_periods` with
   ``per_row``), whether its concentration was below detection, and the share of its
-  hours whose Vd was gap-filled ``phi[n, R]`` [1]; under ``pair_split`` the species a
-  pair is moved into holds both members' sampling periods with its Vd, the other none
-  (:func:`workbench.drypairs.component_rows`);
+  hours in each reporting period whose Vd is not modelled ``phi[n, P, R]`` [1] (the
+  budget's reckoning, :func:`workbench.drycomponents.row_filled_hours`); under
+  ``pair_split`` the species a pair is moved into holds both members' sampling periods
+  with its Vd, the other none (:func:`workbench.drypairs.component_rows`);
 * wet: each (sample, period) piece's precipitation weight ``w`` [mm], the sample's
   concentrations [mol m-3] and whether they were valid or below detection, and which
   periods had their PWM filled from the multi-year seasonal means.
@@ -40,7 +41,9 @@ class DryPieces:
 
     contrib: np.ndarray      #: (n, P, R) [mol m-2] each sampling period's part
     censored: np.ndarray     #: (n,) bool, concentration below detection (substituted)
-    filled: np.ndarray       #: (n, R) [1] share of the row's hours with a gap-filled Vd
+    filled: np.ndarray       #: (n, P, R) [1] share of the row's hours in each period whose
+    #: Vd is not modelled (gap-filled, or missing and taken as the row's mean Vd), the
+    #: budget's reckoning (:func:`workbench.drycomponents.row_filled_hours`)
     row_id: np.ndarray       #: (n,) int, row number within the component's rows (stable
     #: per site; under pair_split the moved-into species' rows are both members')
 
@@ -99,13 +102,16 @@ def period_years(periods: pd.DataFrame) -> np.ndarray:
 
 
 def _dry_layers(rows, periods, sites, n_r):
+    from ..drycomponents import row_filled_hours
     from ..drypairs import component_rows
     from ..dryflux import period_axes, share_to_periods
+    from ..periods import hour_bounds
     out = [dict() for _ in sites]
     if rows is None:
         return out
     axes = period_axes(periods)
     times = rows["times"]
+    pa, pb = hour_bounds(times, axes.start, axes.end)
     row_sites = list(rows["sites"])
     for sp in DRY_SPECIES:
         # the rows behind the component: its own, or under pair_split both members'
@@ -122,8 +128,11 @@ def _dry_layers(rows, periods, sites, n_r):
             a, b = r["a"], r["b"]
             per_row.append(factor * np.where(np.isfinite(pr), pr, 0.0))
             si.append(r["site_index"])
-            filled.append((c_fill[r["site_index"], :, b] - c_fill[r["site_index"], :, a])
-                          / np.maximum(b - a, 1)[:, None])
+            # the budget's own reckoning of the hours not modelled (filled, or without
+            # any Vd), per sampling period and reporting period
+            imputed, hours = row_filled_hours(r["site_index"], a, b, c_fill, pa, pb,
+                                              r.get("cn"))
+            filled.append(imputed / np.maximum(hours, 1.0)[:, :, None])
             cens.append(np.asarray(r.get("censored", np.zeros(len(a), bool)), bool))
         per_row, si = np.concatenate(per_row), np.concatenate(si)
         filled, cens = np.concatenate(filled), np.concatenate(cens)

@@ -54,6 +54,36 @@ def problem(options: SensitivityOptions) -> dict:
     return {"num_vars": len(names), "names": names, "bounds": bounds}
 
 
+def saltelli_sample(prob: dict, samples: int, seed: int) -> np.ndarray:
+    """The sample matrix of Saltelli's scheme for first-order and total indices.
+
+    Parameters
+    ----------
+    prob : dict
+        SALib's problem (:func:`problem`, or any ``num_vars``, ``names``, ``bounds``).
+    samples : int
+        Base sample N, a power of 2 (the Sobol sequence's balance).
+    seed : int
+        Seed of the scrambling of the Sobol sequence.
+
+    Returns
+    -------
+    ndarray (N (k + 2), k)
+        Rows of factor values: N (k + 2) model evaluations, no second-order indices.
+    """
+    sample, _ = _salib()
+    return sample.sample(prob, samples, calc_second_order=False, seed=seed)
+
+
+def sobol_indices(prob: dict, y: np.ndarray, seed: int) -> dict:
+    """First-order and total Sobol indices of outputs `y` of :func:`saltelli_sample`'s
+    rows, with their 95 % bootstrap intervals (SALib's ``S1``, ``S1_conf``, ``ST``,
+    ``ST_conf`` [1]; the bootstrap seeded with `seed`)."""
+    _, analyze = _salib()
+    return analyze.analyze(prob, np.asarray(y, float), calc_second_order=False,
+                           conf_level=0.95, seed=seed)
+
+
 def engine_value(name, options, x):
     """The engine's value of an engine factor for a sample value `x` (None for NaN: the
     scenario's own value)."""
@@ -198,16 +228,15 @@ def sobol(study, base_options: dict, options: SensitivityOptions, run_kwargs=Non
         Columns ``site, receptor, period, element, quantity, factor, S1, S1_conf, ST,
         ST_conf`` [1]; outputs that do not vary (a missing total) are left out.
     """
-    sample, analyze = _salib()
     prob = problem(options)
-    x = sample.sample(prob, options.samples, calc_second_order=False, seed=options.seed)
+    x = saltelli_sample(prob, options.samples, options.seed)
     y, coords = evaluate(study, base_options, options, x, run_kwargs, progress)
     rows = []
     for cell, (s, r, p, q), (el, quantity, _) in _cells(coords, options):
         v = y[:, s, r, p, q]
         if not np.all(np.isfinite(v)) or np.ptp(v) <= 1e-12 * np.abs(v).max():
             continue
-        si = analyze.analyze(prob, v, calc_second_order=False, seed=options.seed)
+        si = sobol_indices(prob, v, options.seed)
         for i, name in enumerate(prob["names"]):
             rows.append((*cell, el, quantity, name, si["S1"][i], si["S1_conf"][i],
                          si["ST"][i], si["ST_conf"][i]))

@@ -17,6 +17,8 @@ from typing import NamedTuple
 
 import numpy as np
 
+from .trends_batch import EXACT_MAX_N, exact_p  # noqa: F401  (the exact p of few values)
+
 #: Fewest complete years for a trend to be called valid.  The normal approximation of
 #: the Mann-Kendall statistic is used from n = 10 on (Gilbert 1987, Statistical Methods
 #: for Environmental Pollution Monitoring, ch. 16, which gives exact tables below that;
@@ -25,8 +27,6 @@ import numpy as np
 MIN_YEARS = 10
 #: Two-sided significance level of the slope's confidence band [1].
 ALPHA = 0.05
-
-
 class TrendResult(NamedTuple):
     """One trend test.  Slopes in the series' unit per year."""
 
@@ -34,7 +34,7 @@ class TrendResult(NamedTuple):
     s: float               #: Mann-Kendall score S [1]
     var_s: float           #: variance of S (ties; Hirsch-Slack covariances if asked) [1]
     z: float               #: standard normal score (continuity-corrected) [1]
-    p_value: float         #: two-sided p [1]
+    p_value: float         #: two-sided p [1] (exact for n <= EXACT_MAX_N without ties)
     tau: float             #: Kendall's tau, S / number of pairs [1]
     slope: float           #: Sen's slope [unit yr-1]
     slope_low: float       #: lower end of its 1 - ALPHA confidence interval [unit yr-1]
@@ -128,7 +128,9 @@ def mann_kendall(x, t=None, alpha=ALPHA) -> TrendResult:
         s = var_s = z = np.nan
     elif var_s == 0:                    # every value tied: no test (not p = 1)
         z = np.nan
-    return TrendResult(n, s, var_s, z, _p(z), s / (n * (n - 1) / 2) if n > 1 else np.nan,
+    p = float(exact_p(n, s, var_s))     # few values, no ties: the exact p
+    p = _p(z) if np.isnan(p) else p
+    return TrendResult(n, s, var_s, z, p, s / (n * (n - 1) / 2) if n > 1 else np.nan,
                        slope, lo, hi, icpt)
 
 

@@ -19,6 +19,48 @@ import numpy as np
 
 #: Largest number of (series x pairs [x seasons]) values held at once [1].
 CHUNK_CELLS = 2_000_000
+#: Largest number of values whose Mann-Kendall p comes from the exact distribution of S
+#: when no two values are tied; the normal approximation is used from n = 10 on and with
+#: ties (Gilbert 1987, ch. 16, exact tables for small n; Kendall 1975; from memory).
+EXACT_MAX_N = 9
+
+
+def _exact_p_table(n_max: int = EXACT_MAX_N) -> np.ndarray:
+    """Two-sided exact p of the Mann-Kendall score without ties, ``table[n, |S|]`` [1].
+
+    Under no trend every order of n distinct values is equally likely; S = N - 2K with
+    N = n(n - 1)/2 pairs and K the inversions, whose counts over the n! orders follow
+    the recursion c_n(k) = sum_{j<n} c_{n-1}(k - j) (Kendall 1975).  p = min(1,
+    2 P(S >= |S|)), as scipy.stats.kendalltau(method="exact") computes it.
+    """
+    pairs_max = n_max * (n_max - 1) // 2
+    table = np.full((n_max + 1, pairs_max + 1), np.nan)
+    counts = np.array([1.0])                             # n = 1: one order, no inversion
+    for n in range(2, n_max + 1):
+        new = np.zeros(counts.size + n - 1)
+        for j in range(n):                               # the n-th value adds j inversions
+            new[j:j + counts.size] += counts
+        counts = new
+        pairs = n * (n - 1) // 2
+        cdf = np.cumsum(counts) / counts.sum()           # P(K <= k)
+        s = np.arange(pairs + 1)
+        table[n, :pairs + 1] = np.minimum(1.0, 2.0 * cdf[(pairs - s) // 2])
+    return table
+
+
+_EXACT_P = _exact_p_table()
+
+
+def exact_p(n, s, var_s):
+    """The exact two-sided p where it applies (2 <= n <= :data:`EXACT_MAX_N`, no ties:
+    Var(S) = n(n-1)(2n+5)/18), else NaN; arrays or scalars [1]."""
+    n, s, var_s = np.broadcast_arrays(np.asarray(n), np.asarray(s, float),
+                                      np.asarray(var_s, float))
+    no_ties = var_s == n * (n - 1) * (2 * n + 5) / 18.0
+    ok = (n >= 2) & (n <= EXACT_MAX_N) & no_ties & np.isfinite(s)
+    ni = np.where(ok, n, 2).astype(np.int64)
+    si = np.where(ok, np.abs(np.nan_to_num(s)), 0).astype(np.int64)
+    return np.where(ok, _EXACT_P[ni, np.minimum(si, _EXACT_P.shape[1] - 1)], np.nan)
 
 
 def median_rows(a) -> np.ndarray:
@@ -144,6 +186,8 @@ def mann_kendall_batch(x, t, alpha) -> dict:
     none = n < 2                         # no pair of values: no test (not p = 1)
     s, var_s, z, p = (np.where(none, np.nan, v) for v in (s, var_s, z, p))
     z, p = (np.where(var_s == 0, np.nan, v) for v in (z, p))   # all values tied: no test
+    exact = exact_p(n, s, var_s)                   # few values, no ties: the exact p
+    p = np.where(np.isnan(exact), p, exact)
     with np.errstate(invalid="ignore", divide="ignore"):
         tau = np.where(n > 1, s / np.where(n > 1, n * (n - 1) / 2, 1.0), np.nan)
     med = median_rows(x)

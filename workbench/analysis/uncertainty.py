@@ -6,13 +6,14 @@ draw is a few matrix products per site and never re-runs the engine:
 * dry component of species *k* at site *s*, reporting period *p*, receptor *r*:
 
   .. math:: D^{(d)}_{srpk} = F^{(d)}_{s,y(p),k} \\sum_n A_{npr}\\,
-            \\delta^{(d)}_n \\,(1 + \\phi_{nr} \\eta^{(d)}_n)
+            \\delta^{(d)}_n \\,(1 + \\phi_{npr} \\eta^{(d)}_n)
 
   with :math:`A` the sampling period's contribution, :math:`F` the Vd model factor
   (log-normal, median 1, systematic within a site-year, correlated among species
   through the shared micrometeorology), :math:`\\delta` the analytical error of the
-  sample (random per sample), :math:`\\phi` the share of its hours with a gap-filled
-  Vd and :math:`\\eta` the error of the fill (random per sample);
+  sample (random per sample), :math:`\\phi` the share of its hours in the period
+  whose Vd is not modelled (gap-filled, or missing; the budget's reckoning) and
+  :math:`\\eta` the error of the fill (random per sample);
 * wet component of ion *X*: :math:`D = \\bar C_p P_p` with, per draw,
 
   .. math:: P_p = g_{s,y(p)} \\sum_i w_{ip} \\varepsilon_i, \\quad
@@ -177,8 +178,22 @@ def _normal_factor(rng, sd, shape):
     return np.maximum(1.0 + sd * rng.standard_normal(shape), 0.0)
 
 
+def _stream_key(seed_key) -> list:
+    """Entropy of a random stream from ``(seed, site, ...)``: integers as they are, a
+    site id (text) by its length and UTF-8 bytes, so that a stream is named by the
+    site itself, not by its place in a run."""
+    out = []
+    for part in seed_key:
+        if isinstance(part, str):
+            b = part.encode("utf-8")
+            out.extend([len(b), *b])
+        else:
+            out.append(int(part))
+    return out
+
+
 def site_noise(layer_site, opt: UncertaintyOptions, n_draws: int, n_years: int, n_periods: int,
-               seed_key) -> SiteNoise:
+               seed_key, year0: int = 0) -> SiteNoise:
     """Draw the factors of one site (the same for any resolution of the same run).
 
     Parameters
@@ -186,18 +201,31 @@ def site_noise(layer_site, opt: UncertaintyOptions, n_draws: int, n_years: int, 
     layer_site : SiteLayer
     opt : UncertaintyOptions
     n_draws, n_years, n_periods : int
-    seed_key : tuple of int
-        ``(seed, site number)``: each site has its own stream, so a site's numbers do
-        not depend on the other sites.
+        Draws; calendar years ``year0 .. year0 + n_years - 1``; reporting periods.
+    seed_key : tuple
+        ``(seed, site id)``: each site has its own streams, named by its id, so that a
+        site's numbers depend neither on the other sites nor on its place in the run.
+    year0 : int
+        The first calendar year.  The systematic factors of a site-year (Vd, gauge
+        catch) come from a stream of their own per calendar year, so that they do not
+        depend on the years the run spans; the random errors of the samples do depend
+        on the samples in the run.
     """
-    rng = np.random.default_rng(list(seed_key))
+    key = _stream_key(seed_key)
     d = n_draws
-    z_shared = rng.standard_normal((d, n_years, 1))
-    z_own = rng.standard_normal((d, n_years, len(DRY_SPECIES)))
+    k = len(DRY_SPECIES)
+    z_shared = np.empty((d, n_years, 1))
+    z_own = np.empty((d, n_years, k))
+    gauge = np.empty((d, n_years))
+    for y in range(n_years):                 # a few years: one stream per calendar year
+        rng_y = np.random.default_rng(key + [2, int(year0) + y])
+        z_shared[:, y] = rng_y.standard_normal((d, 1))
+        z_own[:, y] = rng_y.standard_normal((d, k))
+        gauge[:, y] = _normal_factor(rng_y, opt.gauge_catch_rel_sd, (d,))
     ln_gsd = np.log([opt.gsd(sp) for sp in DRY_SPECIES])
     rho = opt.vd_shared_fraction
     vd = np.exp(ln_gsd * (np.sqrt(rho) * z_shared + np.sqrt(1 - rho) * z_own))
-    gauge = _normal_factor(rng, opt.gauge_catch_rel_sd, (d, n_years))
+    rng = np.random.default_rng(key)
     wet = layer_site.wet
     depth, pconc, pwm_fill = None, {}, {}
     n_s = wet.n_samples if wet is not None else 0
@@ -218,7 +246,7 @@ def site_noise(layer_site, opt: UncertaintyOptions, n_draws: int, n_years: int, 
         vd_fill[sp] = _normal_factor(rng, opt.vd_fill_rel_sd, (d, len(rows.censored))) - 1.0
     # the filled PWMs per reporting period: a stream of their own, so that the
     # factors above are the same for every resolution of the same run
-    rng_fill = np.random.default_rng(list(seed_key) + [1])
+    rng_fill = np.random.default_rng(key + [1])
     for ion in sorted(layer_site.pwm):
         pwm_fill[ion] = _normal_factor(rng_fill, opt.pwm_fill_rel_sd, (d, n_periods))
     return SiteNoise(vd, gauge, depth, pconc, air, vd_fill, pwm_fill)
@@ -237,7 +265,7 @@ def dry_ratio(pieces, vd_factor, air, vd_fill):
     Parameters
     ----------
     pieces : DryPieces
-        ``contrib`` (n, P, R) [mol m-2], ``filled`` (n, R) [1].
+        ``contrib`` (n, P, R) [mol m-2], ``filled`` (n, P, R) [1].
     vd_factor : ndarray (D, P)
         Vd factor of each draw and period [1].
     air : ndarray (D, n)
@@ -249,8 +277,10 @@ def dry_ratio(pieces, vd_factor, air, vd_fill):
     n, n_p, n_r = a.shape
     flat = a.reshape(n, n_p * n_r)
     total = flat.sum(0)
-    dev = (air - 1.0) @ flat + (air * vd_fill) @ (pieces.filled[:, None, :] * a).reshape(n, -1)
-    ratio = 1.0 + _safe_ratio(dev, total)
+    dev = (air - 1.0) @ flat + (air * vd_fill) @ (pieces.filled * a).reshape(n, -1)
+    # >= 0 as every factor is (1 - sum/sum can round to -1e-19 when every sample's
+    # factor is cut to 0, which would read as a net emission)
+    ratio = np.maximum(1.0 + _safe_ratio(dev, total), 0.0)
     return (vd_factor[:, :, None] * ratio.reshape(-1, n_p, n_r)).transpose(0, 2, 1)
 
 
@@ -277,7 +307,7 @@ def wet_ratios(wet, pwm_point, filled, gauge, depth, pconc, pwm_fill, n_periods,
     onehot[np.arange(len(wet.sample)), wet.period] = 1.0
     w = wet.weight[:, None] * onehot                                 # (m, P) [mm]
     eps = depth[:, wet.sample]                                       # (D, m)
-    precip = 1.0 + _safe_ratio((eps - 1.0) @ w, w.sum(0))
+    precip = np.maximum(1.0 + _safe_ratio((eps - 1.0) @ w, w.sum(0)), 0.0)
     pwm = {}
     for ion in set(wanted) | ({"SO4", tracer} if "nssSO4" in wanted else set()):
         if ion not in wet.conc:
@@ -286,7 +316,9 @@ def wet_ratios(wet, pwm_point, filled, gauge, depth, pconc, pwm_fill, n_periods,
         cw = wet.conc[ion][:, None] * ok
         num = 1.0 + _safe_ratio((eps * pconc[ion][:, wet.sample] - 1.0) @ cw, cw.sum(0))
         den = 1.0 + _safe_ratio((eps - 1.0) @ ok, ok.sum(0))
-        r = num / den
+        with np.errstate(invalid="ignore", divide="ignore"):   # den 0: every valid
+            r = np.where(den > 0, np.maximum(num, 0.0) / np.where(den > 0, den, 1.0),
+                         1.0)                  # sample without depth: the point PWM
         if filled is not None and filled.any():
             r = np.where(filled[None, :], pwm_fill[ion], r)
         pwm[ion] = r
@@ -393,15 +425,22 @@ class BudgetQuantiles:
 
 
 def _span_draws(ds, comp, tot):
-    """Mean yearly rate over the years whose element total passes (as span_table)."""
+    """Mean yearly rate over the years whose element total passes (as span_table).
+
+    A year passes as in :func:`workbench.tables.span_table`: the budget's own
+    ``total_passes`` (a total ``flagged`` only for kept flagged samples or a sulfate
+    fallback passes), else a total neither ``flagged`` nor ``missing``.
+    """
     fac = ds["annual_factor"].values                             # (Y,)
     status = ds["total_status"].values                           # (R, Y, T) of one site
+    passes = ds["total_passes"].values.astype(bool) if "total_passes" in ds else None
     names = list(ds["total"].values)
     out_c, out_t = [], []
     el_c = np.array([c[0] for c in COMPONENTS])
     for e in ("S", "N"):
-        st = status[..., names.index(f"{e}_total")]              # (R, Y)
-        ok = ~np.isin(st, ["flagged", "missing"])
+        k = names.index(f"{e}_total")
+        ok = (passes[..., k] if passes is not None
+              else ~np.isin(status[..., k], ["flagged", "missing"]))   # (R, Y)
         out_c.append((e, ok))
     comp_y = comp * fac[None, None, :, None]
     with np.errstate(invalid="ignore"):
@@ -469,7 +508,7 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
                  for name in TOTALS + ("oxidized_N", "reduced_N", "potential_acidity")}
         for k in range(n_s):
             noise = site_noise(lay.sites[k], options, options.draws, n_years, n_p,
-                               (options.seed, k))
+                               (options.seed, str(ds["site"].values[k])), year0)
             comp = component_draws(lay, k, noise, year0)
             tot = totals_of(comp)
             comp_q[:, k] = np.quantile(comp, q, axis=0)

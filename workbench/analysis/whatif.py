@@ -129,19 +129,33 @@ def smallest_fraction(parts, cuts, loads, mode="air_and_wet"):
     :math:`(CL_{max}N - CL_{min}N) S + CL_{max}S\\,N \\le CL_{max}S\\,CL_{max}N`
     (the critical load function, ICP Modelling and Mapping Manual); each gives a lower
     bound on t and the fraction is the largest bound.  Nutrient N: :math:`N(t) \\le
-    CL_{nut}N`.
+    CL_{nut}N`.  A part below 0 (a net emission, e.g. dry NH3 with the bidirectional
+    exchange) makes a rate negative: its constraint then holds up to an upper bound on
+    t, and where the largest lower bound passes the smallest upper bound no fraction of
+    the path ends the exceedance (``inf``).
     """
     s0, n0, a, b = (np.asarray(v, float) for v in _cut_rate(parts, cuts, mode))
     cs, c0, c1, cn = (np.asarray(loads[k], float) for k in ("cl_max_s", "cl_min_n",
                                                            "cl_max_n", "cl_nut_n"))
 
     def bound(excess, rate):
+        """Lower and upper bound on t of excess - t rate <= 0 (a part below 0, a net
+        emission, makes a rate negative: the constraint then ends at an upper bound)."""
         with np.errstate(divide="ignore", invalid="ignore"):
-            return np.where(excess <= 0, 0.0, np.where(rate > 0, excess / rate, np.inf))
+            lower = np.where(excess <= 0, 0.0, np.where(rate > 0, excess / rate, np.inf))
+            upper = np.where((excess <= 0) & (rate < 0), excess / np.where(rate < 0, rate, -1.0),
+                             np.inf)
+        return lower, upper
 
-    acid = np.maximum.reduce([bound(s0 - cs, a), bound(n0 - c1, b),
-                              bound((c1 - c0) * s0 + cs * n0 - cs * c1, (c1 - c0) * a + cs * b)])
-    nut = bound(n0 - cn, b)
+    def first(*constraints):
+        """The smallest t meeting every constraint (inf where none does)."""
+        lower = np.maximum.reduce([c[0] for c in constraints])
+        upper = np.minimum.reduce([c[1] for c in constraints])
+        return np.where(lower <= upper, lower, np.inf)
+
+    acid = first(bound(s0 - cs, a), bound(n0 - c1, b),
+                 bound((c1 - c0) * s0 + cs * n0 - cs * c1, (c1 - c0) * a + cs * b))
+    nut = first(bound(n0 - cn, b))
     acid, nut = np.where(acid > 1, np.inf, acid), np.where(nut > 1, np.inf, nut)
     missing = np.isnan(s0) | np.isnan(n0)
     acid = np.where(missing | np.isnan(cs) | np.isnan(c0) | np.isnan(c1), np.nan, acid)
@@ -217,5 +231,12 @@ def plain_statement(parts, cuts, loads, mode="air_and_wet", where="") -> str:
                        f"{name} exceedance.")
         else:
             out.append(f"cutting {_cuts_text(cuts, t)} ({label}) ends the {name} exceedance.")
+    paths = ("dry", "wet") if mode == "air_and_wet" else ("dry",)
+    net = [f"{GROUP_TEXT[g]} {p}" for g in GROUPS if float(cuts.get(g, 0.0)) > 0
+           for p in paths if float(parts[f"{g}_{p}"]) < 0]
+    if net:
+        out.append(f"Here {' and '.join(net)} deposition is a net emission: the cut scales "
+                   "it as a flux in proportion to the concentration, which an exchange "
+                   "flux is not, so this estimate is rough.")
     text = " ".join(out)
     return head + text[0].upper() + text[1:] if not head else head + text
