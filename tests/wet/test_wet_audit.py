@@ -412,6 +412,21 @@ def test_a_collocated_partner_with_valid_chemistry_covers_a_contaminated_sample(
 
 
 # ----------------------------------------------------------------- trace (sections 2, 7)
+def test_a_gauge_gap_is_reported_as_measured_not_scaled_up():
+    # Section 7, "Gauge gaps are not scaled up": four 10 mm weeks in a 31-day March
+    # leave 3 days (72 of 744 h) without a gauge record: gauge fraction 672 / 744 =
+    # 0.903, above the 0.90 minimum, so the month passes with the 40 mm recorded, not
+    # 40 / 0.903 = 44.3 mm; its flux is the PWM times 40 mm. (This pins the documented
+    # behaviour; it is not the test of a fix.)
+    rows = _weeks("2021-03-01", [10.0] * 4, SO4=30, NO3=20, NH4=25, Na=5)
+    _, wet = _one(rows, [("2021-03-01", "2021-04-01", "Mar")])
+    c = _cell(wet, "Mar")
+    assert c["gauge_fraction"].item() == pytest.approx(672 / 744)
+    assert c["status"].item() == "complete"
+    assert c["precipitation"].item() == pytest.approx(40.0)
+    assert c["dep_SO4"].item() == pytest.approx(30e-3 * 40e-3)       # mol/m3 x m
+
+
 def test_a_trace_week_counts_in_the_time_coverage_and_weighs_by_its_rain():
     # February 2021: 10, 10, 0.2 (trace: too little water to analyse), 10 mm, SO4 30.
     # The trace week is known (the gauge measured it) and carries 0.2 of 30.2 mm: it
