@@ -346,7 +346,10 @@ def gauge_under_wet_collector(gauge_depth, sample_depth, min_depth, high):
     """
     gauge = np.asarray(gauge_depth, dtype=float)
     collector = np.nan_to_num(np.asarray(sample_depth, dtype=float), nan=0.0)
-    small = (gauge >= 0) & ~at_least(gauge, min_depth)
+    # below min_depth by the test of capture_ratio, so that every gauge is judged by
+    # exactly one of the two rules
+    with np.errstate(invalid="ignore"):
+        small = (gauge >= 0) & ~(gauge >= max(min_depth, np.finfo(float).tiny))
     return small & at_least(collector, min_depth) & exceeds(collector, high * gauge)
 
 
