@@ -163,6 +163,63 @@ def test_a_gauge_of_0_mm_under_a_wet_collector_is_not_a_dry_week():
     assert c["status"].item() == "flagged"
 
 
+@pytest.mark.parametrize("gauge, collector, failed", [
+    (0.3, 8.0, True),      # ratio 26.7: the brief's week; a 0.3 mm reading is no dry week
+    (0.2, 1.0, True),      # ratio 5, the collector at the 1 mm minimum
+    (0.9, 1.08, False),    # ratio 1.2, the upper end of the range (equal passes)
+    (0.8, 1.0, True),      # ratio 1.25, just above the range
+    (0.9, 1.0, False),     # ratio 1.11, inside the range: the gauge stands
+])
+def test_a_gauge_far_below_a_wet_collector_is_taken_as_failed(gauge, collector, failed):
+    # Section 3.8: a measured gauge depth below capture_min_depth (1 mm, where the
+    # capture ratio is not judged) beside a collector of at least 1 mm is taken as
+    # failed when collector / gauge exceeds the upper end of the capture range (1.2 for
+    # an unknown precipitation type), as a 0 mm gauge is; filled from the collector by
+    # the site's median capture ratio 9 / 10 = 0.9 and flagged.
+    rows = _weeks("2021-03-01", [10.0] * 5 + [gauge], SO4=30)
+    for r in rows[:-1]:
+        r["sample_depth"] = 9.0
+    rows[-1].update(sample_depth=collector, SO4=60)
+    scr, wet = _one(rows, [("2021-03-01", "2021-04-12", "6wk")])
+    ratio = collector / gauge
+    assert failed == (ratio > 1.2 * (1 + 1e-9))
+    if failed:
+        assert scr["gauge_source"].values[-1] == "collector"
+        assert scr["gauge_depth_used"].values[-1] == pytest.approx(collector / 0.9)
+        assert scr["status"].values[-1] == "flagged"
+        assert "gauge far below a wet collector" in scr["reasons"].values[-1]
+        assert scr["qa_gauge_low_wet"].values[-1]
+        assert not scr["qa_gauge_zero_wet"].values[-1]
+        depth = 50 + collector / 0.9
+    else:
+        assert scr["gauge_source"].values[-1] == "measured"
+        assert scr["gauge_depth_used"].values[-1] == gauge
+        assert scr["capture_check"].values[-1] == "not evaluated"     # below 1 mm
+        assert scr["status"].values[-1] == "used"
+        depth = 50 + gauge
+    c = _cell(wet, "6wk")
+    assert c["precipitation"].item() == pytest.approx(depth)
+    assert c["pwm_SO4"].item() == pytest.approx((50 * 30 + (depth - 50) * 60) / depth * 1e-3)
+
+
+def test_the_far_below_rule_keeps_small_and_judged_pairs():
+    # a collector below 1 mm beside a small gauge (dew, condensation): kept as measured;
+    # a gauge of 1 mm or more is judged by the capture check itself (ratio 8 above range:
+    # flagged, the gauge kept, section 3.6), not by this rule
+    for gauge, collector, check in ((0.3, 0.9, "not evaluated"), (1.0, 8.0, "high")):
+        rows = _weeks("2021-03-01", [10.0] * 5 + [gauge], SO4=30)
+        for r in rows[:-1]:
+            r["sample_depth"] = 9.0
+        rows[-1]["sample_depth"] = collector
+        scr, _ = _one(rows, [("2021-03-01", "2021-04-12", "6wk")])
+        assert scr["gauge_source"].values[-1] == "measured"
+        assert scr["gauge_depth_used"].values[-1] == gauge
+        assert scr["capture_check"].values[-1] == check
+        assert not scr["qa_gauge_low_wet"].values[-1]
+    assert qa.gauge_under_wet_collector(np.array([0.0]), np.array([1.0]), 1.0, 1.2)[0]
+    assert not qa.gauge_under_wet_collector(np.array([np.nan]), np.array([8.0]), 1.0, 1.2)[0]
+
+
 # ----------------------------------------------------------------- periods (section 4)
 def test_a_weekly_sample_across_31_december_is_shared_by_hours():
     # Mon 28 Dec 2020 00:00 - Mon 4 Jan 2021 00:00 UTC: 96 h in 2020, 72 h in 2021;
@@ -355,6 +412,21 @@ def test_a_collocated_partner_with_valid_chemistry_covers_a_contaminated_sample(
 
 
 # ----------------------------------------------------------------- trace (sections 2, 7)
+def test_a_gauge_gap_is_reported_as_measured_not_scaled_up():
+    # Section 7, "Gauge gaps are not scaled up": four 10 mm weeks in a 31-day March
+    # leave 3 days (72 of 744 h) without a gauge record: gauge fraction 672 / 744 =
+    # 0.903, above the 0.90 minimum, so the month passes with the 40 mm recorded, not
+    # 40 / 0.903 = 44.3 mm; its flux is the PWM times 40 mm. (This pins the documented
+    # behaviour; it is not the test of a fix.)
+    rows = _weeks("2021-03-01", [10.0] * 4, SO4=30, NO3=20, NH4=25, Na=5)
+    _, wet = _one(rows, [("2021-03-01", "2021-04-01", "Mar")])
+    c = _cell(wet, "Mar")
+    assert c["gauge_fraction"].item() == pytest.approx(672 / 744)
+    assert c["status"].item() == "complete"
+    assert c["precipitation"].item() == pytest.approx(40.0)
+    assert c["dep_SO4"].item() == pytest.approx(30e-3 * 40e-3)       # mol/m3 x m
+
+
 def test_a_trace_week_counts_in_the_time_coverage_and_weighs_by_its_rain():
     # February 2021: 10, 10, 0.2 (trace: too little water to analyse), 10 mm, SO4 30.
     # The trace week is known (the gauge measured it) and carries 0.2 of 30.2 mm: it

@@ -2,14 +2,19 @@
 
 ``exceedance.csv`` (critical-load exceedance per site, receptor and year, and the span
 mean), ``trends.csv`` (Mann-Kendall and seasonal Kendall trends),
-``precipitation_annual.csv`` (depth and precipitation-weighted means per site and year)
+``precipitation_annual.csv`` (depth and precipitation-weighted means per site and year,
+each mean with its own status and valid share: :func:`precipitation_annual`)
 ``quality.csv`` (data quality per site and year) and, with ``[compare]
 common_receptor``, ``common_surface.csv`` (every site on one surface); each further
 analysis adds its file here, so that the run-folder code calls one function.
 """
 from __future__ import annotations
 
+import json
 from pathlib import Path
+
+import numpy as np
+import pandas as pd
 
 #: Float format of the analysis tables (as budget.csv).
 FLOAT_FORMAT = "%.10g"
@@ -48,10 +53,10 @@ def write_analysis(result, study, scenario, out, atomic_write) -> dict:
     from .trends import detection_limit_notes, trend_table
     tr = trend_table(year_rows, month_rows, detection_limit_notes(study.inputs))
     written["trends.csv"] = _csv(tr, out / "trends.csv", atomic_write)
-    from .handover import precipitation_table, quality_table
+    from .handover import quality_table
     wet = yearly_wet(result, study)
     if wet is not None:
-        written["precipitation_annual.csv"] = _csv(precipitation_table(wet),
+        written["precipitation_annual.csv"] = _csv(precipitation_annual(wet),
                                                    out / "precipitation_annual.csv", atomic_write)
     q = quality_table(result.years, wet, result.screened)
     written["quality.csv"] = _csv(q, out / "quality.csv", atomic_write)
@@ -62,6 +67,83 @@ def write_analysis(result, study, scenario, out, atomic_write) -> dict:
         written["common_surface.csv"] = _csv(common_surface_table(result, study, common),
                                              out / "common_surface.csv", atomic_write)
     return written
+
+
+def ion_status(wet, name):
+    """Status and valid share of one precipitation-weighted mean of the wet chain.
+
+    The rule of the budget's wet components (:func:`workbench.budgetstatus.wet_component`):
+    the period's status, ``flagged`` where the ion itself was valid for less than
+    ``min_valid_precip_fraction`` of the rain (another ion may have carried the period),
+    where non-sea-salt sulfate etc. fell back to the total ion or was clipped at 0, and
+    ``missing`` where the ion has no value (no valid value in the period's samples, or
+    never measured at the site).  A non-sea-salt mean counts the valid share of the ion
+    and of the sea-salt tracer, and reports the smaller one.
+
+    Parameters
+    ----------
+    wet : xarray.Dataset
+        :func:`workbench.wet.wet_deposition` on (site, period).
+    name : str
+        The mean's name without ``pwm_`` (``SO4``, ``H``, ``nssSO4``...).
+
+    Returns
+    -------
+    status : ndarray of str, shape (site, period)
+    share : ndarray, shape (site, period)
+        Share of the period's precipitation with a valid value of the ion [1]; 1 in a
+        period without rain at a site that measures the ion (as the period's
+        ``valid_precip_fraction``); NaN without a gauge depth, and in a period without
+        rain at a site that never measured the ion.
+    """
+    from ..wet.qa import falls_short
+    v = wet.variables
+    dims = ("site", "period")
+    status = wet["status"].transpose(*dims).values.astype(object)
+    status = np.where(pd.isna(status), "missing", status).astype(object)
+    precip = wet["precipitation"].transpose(*dims).values
+    need = json.loads(wet.attrs.get("wet_options", "{}")).get("min_valid_precip_fraction", 0.7)
+    ion = name.removeprefix("nss")
+    ions = [ion] + ([wet.attrs.get("seasalt_tracer", "Na")] if name != ion else [])
+    have = list(wet["ion"].values) if "ion" in wet.coords else []
+    share = np.full(status.shape, np.inf)
+    low = np.zeros(status.shape, bool)
+    for i in ions:
+        if i not in have:
+            continue
+        frac = wet["ion_valid_precip_fraction"].sel(ion=i).transpose(*dims).values
+        # equal to the minimum (to rounding) passes, as in the budget
+        low |= np.isfinite(frac) & falls_short(frac, need) & (frac > 0) & (status != "missing")
+        share = np.fmin(share, np.where(precip > 0, frac, np.where(precip == 0, 1.0, np.nan)))
+    share = np.where(np.isinf(share), np.nan, share)
+    soft = np.zeros(status.shape, bool)
+    for flag in (f"{name}_total_used", f"{name}_clipped"):
+        if flag in v:
+            soft |= wet[flag].transpose(*dims).values.astype(bool)
+    status = np.where((soft & np.isin(status, ("complete", "filled"))) | low, "flagged", status)
+    dep = (wet[f"dep_{name}"].transpose(*dims).values if f"dep_{name}" in v
+           else np.full(status.shape, np.nan))
+    gone = ~np.isfinite(dep)
+    share = np.where(gone & ~(precip > 0), np.nan, share)
+    return np.where(gone, "missing", status).astype(object), share
+
+
+def precipitation_annual(wet):
+    """``precipitation_annual.csv``: :func:`workbench.analysis.handover.precipitation_table`
+    with, after its columns, ``pwm_<ion>_valid_share`` [1] and ``pwm_<ion>_status`` of
+    each mean (:func:`ion_status`); ``status`` stays the period's (all ions) status."""
+    from .handover import precipitation_table
+    table = precipitation_table(wet)
+    names = [c[4:-6] for c in table.columns if c.startswith("pwm_") and c.endswith("_ueq_l")]
+    sites = wet["site"].values.astype(str)
+    periods = wet["period"].values.astype(str)
+    extra = {"site": sites.repeat(len(periods)), "period": np.tile(periods, len(sites))}
+    for name in names:
+        st, share = ion_status(wet, name)
+        extra[f"pwm_{name}_valid_share"] = share.reshape(-1)
+        extra[f"pwm_{name}_status"] = st.reshape(-1)
+    keyed = table.astype({"site": str, "period": str})
+    return keyed.merge(pd.DataFrame(extra), on=["site", "period"], how="left", validate="1:1")
 
 
 def yearly_wet(result, study):

@@ -318,6 +318,41 @@ def capture_ratio(sample_depth, gauge_depth, min_depth=0.0):
     return sample_depth / _where(ok, gauge_depth, np.nan)
 
 
+def gauge_under_wet_collector(gauge_depth, sample_depth, min_depth, high):
+    """True where a gauge reading is taken as failed beside a wet collector [bool].
+
+    The capture ratio is judged only from a gauge of `min_depth` up
+    (:func:`capture_ratio`); below it a gauge far under a collector holding water would
+    pass unseen.  A measured gauge depth below `min_depth` beside a collector of at
+    least `min_depth` is taken as failed when the collector holds more than `high`
+    times the gauge, the upper end of the accepted capture range: the ratio the
+    collector could not reach beside a working gauge.  A 0 mm gauge is the limit of
+    the rule (any collector of at least `min_depth`).  docs/methods_wet.md section 3.8.
+
+    Parameters
+    ----------
+    gauge_depth : array_like
+        Measured gauge depth (NaN where none). [mm]
+    sample_depth : array_like
+        Collector depth (NaN where none). [mm]
+    min_depth : float
+        Smallest depth from which the capture ratio is judged. [mm]
+    high : float or array_like
+        Upper end of the accepted capture ratio (per precipitation type). [1]
+
+    >>> gauge_under_wet_collector(np.array([0.0, 0.3, 0.9, 0.5, 2.0]),
+    ...                           np.array([1.0, 8.0, 1.0, 0.8, 8.0]), 1.0, 1.2).tolist()
+    [True, True, False, False, False]
+    """
+    gauge = np.asarray(gauge_depth, dtype=float)
+    collector = np.nan_to_num(np.asarray(sample_depth, dtype=float), nan=0.0)
+    # below min_depth by the test of capture_ratio, so that every gauge is judged by
+    # exactly one of the two rules
+    with np.errstate(invalid="ignore"):
+        small = (gauge >= 0) & ~(gauge >= max(min_depth, np.finfo(float).tiny))
+    return small & at_least(collector, min_depth) & exceeds(collector, high * gauge)
+
+
 def censored_value(value, censored, limit, method: str = "half"):
     """Value used for a result below the detection limit [same unit as `value`].
 

@@ -284,22 +284,28 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
     ptype = qa.precipitation_type(share, opt.snow_share)
     gauge = _values(ds, "gauge_depth")
     sample_depth = _values(ds, "sample_depth")
-    # a gauge of 0 mm under a collector holding at least capture_min_depth of water
-    # missed the rain (blocked funnel): not a dry week; the gauge is taken as failed and
-    # filled like one (docs/methods_wet.md section 3.6)
-    gauge_zero_wet = (~gauge_flag_bad & (gauge == 0) &
-                      qa.at_least(np.nan_to_num(sample_depth, nan=0.0), opt.capture_min_depth))
-    measured_ok = ~gauge_flag_bad & np.isfinite(gauge) & (gauge >= 0) & ~gauge_zero_wet
-    ratio = qa.capture_ratio(sample_depth, np.where(measured_ok, gauge, np.nan),
-                             opt.capture_min_depth)
     ranges = {"rain": opt.capture_rain, "snow": opt.capture_snow, "mixed": opt.capture_mixed,
               "unknown": opt.capture_unknown}
     lo = np.select([ptype == k for k in ranges], [r[0] for r in ranges.values()])
     hi = np.select([ptype == k for k in ranges], [r[1] for r in ranges.values()])
+    # a gauge of 0 mm, or below capture_min_depth and under 1/hi of the collector,
+    # beside a collector holding at least capture_min_depth missed the rain (blocked
+    # funnel): not a dry (or nearly dry) week; the gauge is taken as failed and filled
+    # like one (docs/methods_wet.md section 3.8)
+    gauge_failed_wet = ~gauge_flag_bad & qa.gauge_under_wet_collector(
+        gauge, sample_depth, opt.capture_min_depth, hi)
+    gauge_zero_wet = gauge_failed_wet & (gauge == 0)
+    gauge_low_wet = gauge_failed_wet & (gauge > 0)
+    measured_ok = ~gauge_flag_bad & np.isfinite(gauge) & (gauge >= 0) & ~gauge_failed_wet
+    ratio = qa.capture_ratio(sample_depth, np.where(measured_ok, gauge, np.nan),
+                             opt.capture_min_depth)
     cap_low, cap_high = qa.falls_short(ratio, lo), qa.exceeds(ratio, hi)
     cap_effect = "exclude" if opt.on_capture_fail == "exclude" else "flag"
     reasons.append(("gauge_zero_wet", "gauge 0 mm under a wet collector (gauge taken as "
                     "failed)", gauge_zero_wet, "flag"))
+    reasons.append(("gauge_low_wet", "gauge far below a wet collector (below the capture "
+                    "check's minimum depth, collector above the capture range: gauge taken "
+                    "as failed)", gauge_low_wet, "flag"))
     reasons.append(("capture_low", "capture ratio below range", cap_low, cap_effect))
     reasons.append(("capture_high", "capture ratio above range (leak or contamination?)",
                     cap_high, cap_effect))
