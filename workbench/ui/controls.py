@@ -298,14 +298,19 @@ def refresh(widget: go.FigureWidget, fig) -> dict:
         keep_state(widget)
         return {"restyled": len(types), "relayout": len(spec["layout"]), "replaced": True}
     n = len(types)
-    restyle: dict = {}
     new_traces = [_flatten(t) for t in spec["data"]]
-    for i, (old, new) in enumerate(zip(shown["traces"], new_traces)):
-        for k in new.keys() | old.keys():
-            v = new.get(k)
-            if k in old and k in new and _equal(old[k], v):
-                continue
-            restyle.setdefault(k, [Undefined] * n)[i] = v
+    changed = {k for old, new in zip(shown["traces"], new_traces) for k in new.keys() | old.keys()
+               if not (k in old and k in new and _equal(old[k], new[k]))}
+    # a changed property goes to every trace that has it, with its value (None: no
+    # longer set), never with plotly's placeholder for "as it is" (Undefined): the
+    # widget's front end stores the placeholder as the trace's value in its copy of the
+    # figure, finds the drawn value differs and sends it back as a default, and plotly's
+    # Python side then drops the property from the trace (bars the page showed held
+    # y = None in Python).  A trace without the property before and after gets the
+    # placeholder: it has nothing to drop, and None would be an invalid path for it
+    # (marker.pattern of a scatter trace).
+    restyle = {k: [new[k] if k in new else None if k in old else Undefined
+                   for old, new in zip(shown["traces"], new_traces)] for k in sorted(changed)}
     new_layout = _flatten(spec["layout"])
     relayout = {k: new_layout.get(k) for k in new_layout.keys() | shown["layout"].keys()
                 if not (k in new_layout and k in shown["layout"]
@@ -320,9 +325,11 @@ def refresh(widget: go.FigureWidget, fig) -> dict:
     if restyle or relayout:
         widget.plotly_update(restyle_data=restyle, relayout_data=relayout,
                              trace_indexes=list(range(n)))
+    shown_before = shown["traces"]
     shown.update(traces=new_traces, layout=new_layout, spec=spec)
     keep_state(widget)
-    return {"restyled": sum(sum(v is not Undefined for v in vals) for vals in restyle.values()),
+    return {"restyled": sum(not (k in old and k in new and _equal(old[k], new[k]))
+                            for k in changed for old, new in zip(shown_before, new_traces)),
             "relayout": len(relayout) + len(compound), "replaced": False}
 
 
