@@ -13,7 +13,8 @@ import dataclasses
 import ipywidgets as widgets
 import pandas as pd
 
-from .controls import Progress, caution_box, figure_widget, open_with_progress, refresh
+from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
+                       refresh)
 from .figures_sensitivity import sensitivity_figure
 from .session import Session
 
@@ -25,7 +26,7 @@ OUTPUT_CHOICES = {"N total": ("N", "total"), "N dry": ("N", "dry"), "N wet": ("N
                   "potential acidity": ("S+N", "potential_acidity")}
 
 
-class SobolExplorer(widgets.VBox):
+class SobolExplorer(SavedText, widgets.VBox):
     """Sobol bars and a tornado for one site, receptor and span of years.
 
     Attributes
@@ -35,6 +36,14 @@ class SobolExplorer(widgets.VBox):
         :func:`~workbench.analysis.sensitivity.tornado`), one row per year.
     fig : plotly.graph_objects.FigureWidget
     """
+
+    title = "Sobol indices and tornado"
+
+    def shown_what(self) -> str:
+        try:
+            return f"{self.site_w.value} · {self.receptor_w.value}"
+        except AttributeError:          # while being built
+            return ""
 
     @classmethod
     def from_scenario(cls, scenario_path, **kw) -> "SobolExplorer":

@@ -13,7 +13,8 @@ from ..analysis.exceedance import (REGIONS, acidity_exceedance, not_determined,
                                    nutrient_n_exceedance)
 from ..analysis.trends import MIN_YEARS
 from ..analysis.whatif import GROUP_TEXT, GROUPS, MODES, group_deposition, path_table, plain_statement
-from .controls import Progress, caution_box, figure_widget, open_with_progress, refresh, table_html
+from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
+                       refresh, table_html)
 from .figures_analysis import clf_spec
 from .session import Session
 from .summaries import RANKABLE, total_rates
@@ -48,7 +49,7 @@ def path_display(path: pd.DataFrame) -> pd.DataFrame:
     return t.rename(columns=PATH_HEADINGS)
 
 
-class CriticalLoadsExplorer(widgets.VBox):
+class CriticalLoadsExplorer(SavedText, widgets.VBox):
     """One site, receptor and year against the critical load function, with a what-if path.
 
     Attributes
@@ -61,6 +62,14 @@ class CriticalLoadsExplorer(widgets.VBox):
         The last plain statement of what the cuts do.
     fig : plotly.graph_objects.FigureWidget
     """
+
+    title = "Critical loads and what-if cuts"
+
+    def shown_what(self) -> str:
+        try:
+            return f"{self.site_w.value} · {self.receptor_w.value} · {self.year_w.value}"
+        except AttributeError:          # while being built
+            return ""
 
     @classmethod
     def from_scenario(cls, scenario_path, **kw) -> "CriticalLoadsExplorer":

@@ -9,8 +9,8 @@ import pandas as pd
 
 from . import figures
 from .assumptions import ASSUMPTIONS, Settings
-from .controls import (Progress, caution_box, figure_widget, open_with_progress, refresh,
-                       table_html, wrap_labels_style)
+from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
+                       refresh, table_html, wrap_labels_style)
 from .session import Session
 from .summaries import UNITS, network_ranking, network_table
 
@@ -33,7 +33,7 @@ def sweep_values(a, low=None, high=None, steps=SWEEP_STEPS) -> list:
     return [float(v) for v in np.round(np.linspace(lo, hi, int(steps)), 6)]
 
 
-class SensitivityExplorer(widgets.VBox):
+class SensitivityExplorer(SavedText, widgets.VBox):
     """Pick one assumption and a range; see how each total responds.
 
     The baseline (the scenario's setting) is marked; for a number left to the model
@@ -46,6 +46,14 @@ class SensitivityExplorer(widgets.VBox):
         The last sweep (``value, total, rate, status``).
     fig : plotly.graph_objects.FigureWidget
     """
+
+    title = "Sensitivity explorer"
+
+    def shown_what(self) -> str:
+        try:
+            return f"{self.site_w.value} · {self.key_w.value}"
+        except AttributeError:          # while being built
+            return ""
 
     @classmethod
     def from_scenario(cls, scenario_path, **kw) -> "SensitivityExplorer":
@@ -195,12 +203,20 @@ class SensitivityExplorer(widgets.VBox):
             "no effect on the totals", "no effect over the sweep on the totals"))
 
 
-class NetworkOverview(widgets.VBox):
+class NetworkOverview(SavedText, widgets.VBox):
     """All sites side by side: annual totals over the years and a ranking.
 
     A total built on a partial set of species (or failing completeness) is drawn with
     open markers and never ranked beside complete ones.
     """
+
+    title = "Network overview"
+
+    def shown_what(self) -> str:
+        try:
+            return f"{self.years[0]}-{self.years[1]}"
+        except AttributeError:          # while being built
+            return ""
 
     @classmethod
     def from_scenario(cls, scenario_path, **kw) -> "NetworkOverview":

@@ -441,13 +441,46 @@ def short_errors() -> bool:
     return True
 
 
+class SavedText:
+    """Mixin of the apps: the line a saved notebook keeps in place of the app.
+
+    A notebook opened without running it (a colleague's copy, with its outputs) shows
+    a widget's plain-text form where the widget cannot be drawn; ipywidgets' own is the
+    widget's repr cut at 110 characters (``SiteExplorer(children=(HTML(value='<h3>...``).
+    The apps give :meth:`saved_text` instead.
+    """
+
+    #: What the app is, in words (the start of the line).
+    title = "workbench app"
+
+    def shown_what(self) -> str:
+        """What the app shows (site, years...), or ``""``."""
+        return ""
+
+    def saved_text(self) -> str:
+        what = self.shown_what()
+        return (f"[{self.title}{' · ' + what if what else ''}: an interactive app. Run the "
+                "notebook's cells (Run > Run All Cells) to show and use it.]")
+
+    def _repr_mimebundle_(self, **kwargs):
+        data = super()._repr_mimebundle_(**kwargs)
+        data["text/plain"] = self.saved_text()
+        return data
+
+
 def open_with_progress(cls, scenario_path, **kw):
     """Open a scenario with a progress bar shown while the inputs are read, then `cls`
-    (a bad input or scenario is shown as its one located message, :func:`short_errors`)."""
+    (a bad input or scenario is shown as its one located message, :func:`short_errors`).
+
+    `scenario_path` is found as a notebook's first cell says
+    (:func:`workbench.ui.notebook_paths.scenario_path`): ``"demo"``, absolute, or
+    relative to the notebook (then to the working directory)."""
     from ..errors import WorkbenchError
+    from .notebook_paths import scenario_path as find
     from .session import Session
     from IPython.display import display
     short_errors()
+    scenario_path = find(scenario_path)       # beside the notebook, or a clear message
     prog = Progress()
     handle = display(prog, display_id=True)
     prog.start("opening the scenario")
@@ -459,6 +492,6 @@ def open_with_progress(cls, scenario_path, **kw):
     prog.step("first run", 0.85)
     app = cls(session, progress=prog, **kw)
     prog.done("ready")
-    if handle is not None:
-        handle.update(widgets.HTML(""))
+    if handle is not None:      # no bar left behind (and no "HTML(value='')" in a saved file)
+        handle.update({"text/plain": ""}, raw=True)
     return app
