@@ -69,7 +69,9 @@ class SobolExplorer(SavedText, widgets.VBox):
         self.output_w = widgets.Dropdown(options=list(OUTPUT_CHOICES), value=output,
                                          description="total")
         self.samples_w = widgets.Dropdown(options=SAMPLES, value=samples or (
-            opt.samples if opt.samples in SAMPLES else 64), description="N")
+            opt.samples if opt.samples in SAMPLES else 64), description="base samples")
+        # "N" alone (SALib's name) read as nitrogen beside "total: N total"
+        self.samples_w.tooltip = "N of the Saltelli sampling (SALib): more samples, more engine runs"
         self.run_w = widgets.Button(description="Run analysis", icon="play",
                                     button_style="primary")
         self.bar_w = widgets.Label("")
@@ -111,7 +113,7 @@ class SobolExplorer(SavedText, widgets.VBox):
         if self.shown:
             site, rec, (y0, y1) = self.shown
             self.progress.step("changed: press Run analysis (the figure shows "
-                               f"{site} · {rec} · {y0}-{y1})", 0.0)
+                               f"{site} · {rec} · {y0 if y0 == y1 else f'{y0}-{y1}'})", 0.0)
 
     def _figure(self):
         el, quantity = OUTPUT_CHOICES[self.output_w.value]
