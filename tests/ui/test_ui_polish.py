@@ -187,3 +187,20 @@ def test_sweep_without_effect_says_why(session):
         app.run()
     assert "no effect over the sweep" in app.note_w.value
     assert "no HNO3 left" in app.note_w.value
+
+
+def test_network_trend_table_headings_in_words(two_sites_2021):
+    """The walk-through's network table headed its columns S_trend, ex_acidity_eq_ha_yr,
+    exceedance_status; the frame keeps those names (handover tables), the page words."""
+    import warnings
+
+    from workbench.ui.apps_more import NetworkOverview
+    from workbench.ui.session import Session
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        net = NetworkOverview(Session.open(two_sites_2021), years=(2021, 2021))
+    page = net.analysis_w.value
+    for name in ("S trend", "acidity exceedance", "nutrient-N exceedance", "status of the totals"):
+        assert f">{name}<" in page, name
+    assert "ex_acidity_eq_ha_yr" not in page and "S_trend" not in page
+    assert "ex_acidity_eq_ha_yr" in net.analysis.columns

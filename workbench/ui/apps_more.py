@@ -203,6 +203,14 @@ class SensitivityExplorer(SavedText, widgets.VBox):
             "no effect on the totals", "no effect over the sweep on the totals"))
 
 
+#: Headings of the network's trend and exceedance table as shown (the frame keeps the
+#: column names of the handover tables: ``S_trend``, ``ex_acidity_eq_ha_yr``...).
+ANALYSIS_HEADINGS = {"S_trend": "S trend", "N_trend": "N trend",
+                     "ex_acidity_eq_ha_yr": "acidity exceedance",
+                     "ex_nutrient_n_eq_ha_yr": "nutrient-N exceedance",
+                     "exceedance_status": "status of the totals"}
+
+
 class NetworkOverview(SavedText, widgets.VBox):
     """All sites side by side: annual totals over the years and a ranking.
 
@@ -246,7 +254,8 @@ class NetworkOverview(SavedText, widgets.VBox):
                                        "and critical-load exceedance of the span "
                                        "[eq/ha/yr]</b>"
                                        "<div style='overflow-x:auto;max-width:100%'>"
-                                       + table_html(self.analysis) + "</div>")
+                                       + table_html(self.analysis.rename(
+                                           columns=ANALYSIS_HEADINGS)) + "</div>")
         # the two rankings side by side where the window is wide enough, else one
         # under the other (a plot drawn in a notebook does not know its box's width)
         rankings = widgets.HBox([self.figs["S"], self.figs["N"]],
