@@ -117,3 +117,25 @@ def test_site_explorer_figures_after_control_changes(session):
     budget = app.figs["budget"]
     assert all(t.y is not None for t in budget.data)
 
+
+
+def test_critical_loads_and_sensitivity_figures_after_control_changes(session):
+    from workbench.ui.apps_analysis import CriticalLoadsExplorer
+    from workbench.ui.apps_more import SensitivityExplorer
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        cl = CriticalLoadsExplorer(session, site="ridge")
+        cl.range_w.value = False
+        sens = SensitivityExplorer(session, site="ridge", years=(2021, 2021),
+                                   key="fixed_velocity.SO2")
+        views = [FrontEnd(cl.fig), FrontEnd(sens.fig)]
+        for control, value in ((cl.cut_w["S"], 80), (cl.mode_w, "air_only"),
+                               (cl.year_w, cl.year_w.options[0]), (cl.cut_w["NHx"], 10),
+                               (sens.unit_w, "eq/ha/yr"), (sens.steps_w, 3)):
+            control.value = value
+            if control is sens.steps_w:
+                sens.run()
+            for fe in views:
+                fe.flush()
+            for w in (cl.fig, sens.fig):
+                assert _python_side_is_the_drawn_spec(w) == [], value
