@@ -280,7 +280,10 @@ def refresh(widget: go.FigureWidget, fig) -> dict:
     -----
     When the new figure has the same number and types of traces as the one shown
     (the usual case), only the properties whose values changed are sent, in one
-    ``plotly_update`` (the message a batched update sends); the spec functions build
+    ``plotly_update`` (the message a batched update sends), each with its value for
+    every trace that has it (never plotly's ``Undefined`` for a trace holding the
+    property: the front end would hand the drawn value back as a default and plotly's
+    Python side drop it, tests/ui/test_widget_data.py); the spec functions build
     valid plotly JSON, and their figures are validated where they are built as plotly
     objects (the ``budget_bars`` ... functions and their tests).  Otherwise the traces
     are replaced through plotly's validated objects.
