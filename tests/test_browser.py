@@ -198,6 +198,21 @@ def _run_all(page, lab, token, name):
         " return p.length && p.every(e => /\\[\\d+\\]/.test(e.innerText)); }")
 
 
+def _python(page, code):
+    """Run `code` in a new last cell of the open notebook; the text of its output."""
+    page.locator(".jp-Notebook .jp-Cell .jp-InputPrompt").last.click()
+    page.evaluate("window.jupyterapp.commands.execute('notebook:insert-cell-below')")
+    page.evaluate("window.jupyterapp.commands.execute('notebook:enter-edit-mode')")
+    page.wait_for_timeout(300)
+    page.keyboard.type(code)
+    marker = "@@" + secrets.token_hex(4)
+    page.keyboard.type(f"; print({marker!r})")
+    page.evaluate("window.jupyterapp.commands.execute('notebook:run-cell')")
+    out = page.locator(".jp-OutputArea-output", has_text=marker).last
+    out.wait_for()
+    return out.inner_text().replace(marker, "").strip()
+
+
 def _no_javascript_errors(page):
     page.wait_for_timeout(500)
     errors = page.evaluate(JS_ERRORS)
@@ -282,6 +297,12 @@ def test_site_budget_in_a_real_browser(lab, token, page, tmp_path):
     after = page.evaluate(BUDGET)
     assert _trace(after, "wet SO4")["y"][0] > wet_so4   # total sulfate adds the sea-salt part
     page.wait_for_function("() => /->/.test(document.querySelector('.wb-change')?.innerText || '')")
+    # the Python side of the budget after the browser's replies: the bars whose values
+    # stayed keep their y (the front end once sent them back as defaults, and Python
+    # dropped them: an exported PNG drew them flat)
+    lost = _python(page, "print(sorted(t.get('name') for t in app.figs['budget']._data "
+                   "if t.get('y') is None))")
+    assert lost == "[]", lost
     # the years: 2021 -> 2020-2021 with the lower handle of the slider
     assert "2020" not in _trace(after, "total")["x"]
     page.locator(".wb-years .noUi-handle").first.focus()

@@ -141,3 +141,83 @@ def test_run_artefacts_stay_out_of_the_notebooks_folder():
     assert ignored.stdout.split() == ["notebooks/my_scenario.toml",
                                       "notebooks/run-folder/budget.csv",
                                       "notebooks/.ipynb_checkpoints/x.ipynb"]
+
+
+# ---------------------------------------------------------------- a team sharing notebooks
+def _shared_copy(name, tmp_path, scenario_line):
+    """The notebook as a colleague has it: in another folder, its first cell pointing at
+    the scenario with a path relative to the notebook (the data in data/ beside it)."""
+    nb = nbformat.read(NOTEBOOKS / f"{name}.ipynb", as_version=4)
+    nb.metadata.pop("widgets", None)
+    first = nb.cells[0].source.split("\n")
+    nb.cells[0].source = "\n".join(scenario_line if ln.startswith("SCENARIO =") else ln
+                                   for ln in first)
+    folder = tmp_path / "shared" / "analysis"
+    folder.mkdir(parents=True)
+    return nb, folder
+
+
+def _execute(nb, cwd, **kw):
+    client = NotebookClient(nb, timeout=CELL_TIMEOUT, kernel_name="python3",
+                            resources={"metadata": {"path": str(cwd)}}, **kw)
+    client.execute()
+    return nb
+
+
+def test_relative_scenario_found_beside_the_notebook_from_another_folder(tmp_path, monkeypatch):
+    """Kernel started in another folder (JupyterLab's root elsewhere, papermill): the
+    front end names the notebook (JPY_SESSION_NAME) and its relative SCENARIO is found."""
+    nb, folder = _shared_copy("critical_loads", tmp_path, 'SCENARIO = "data/scenario.toml"')
+    write_demo_subset(folder / "data", ("ridge",), 2021, 2021)
+    (tmp_path / "home").mkdir()
+    monkeypatch.setenv("JPY_SESSION_NAME", str(folder / "critical_loads.ipynb"))
+    nb = _execute(nb, tmp_path / "home", store_widget_state=False)
+    outs = _outputs(nb)
+    assert not [o for o in outs if o.output_type == "error"]
+    assert "ridge" in "".join(o.get("text", "") for o in nb.cells[-1].outputs)   # the statement
+
+
+def test_missing_scenario_says_what_to_do_in_one_line(tmp_path, monkeypatch):
+    """A colleague's copy whose relative path does not exist here: one located line
+    naming the places looked at, SCENARIO and "demo"; no traceback."""
+    from nbclient.exceptions import CellExecutionError
+    nb, folder = _shared_copy("site_budget", tmp_path, 'SCENARIO = "../demo_data/scenario.toml"')
+    monkeypatch.setenv("JPY_SESSION_NAME", str(folder / "site_budget.ipynb"))
+    with pytest.raises(CellExecutionError):
+        _execute(nb, folder, store_widget_state=False)
+    errors = [o for o in _outputs(nb) if o.output_type == "error"]
+    assert len(errors) == 1
+    text = "\n".join(errors[0].traceback)
+    assert "no such scenario file" in text and '"demo"' in text and "beside this notebook" in text
+    assert str(folder / "../demo_data/scenario.toml") in text
+    assert "Traceback" not in text and len(errors[0].traceback) == 1
+
+
+def test_rerun_from_the_top_in_the_same_kernel(scenarios, tmp_path):
+    """Run All twice without restarting (a user going back to the top): the second run
+    makes the apps again without an error."""
+    nb = nbformat.read(NOTEBOOKS / "site_budget.ipynb", as_version=4)
+    nb.metadata.pop("widgets", None)
+    nb.cells.insert(1, nbformat.v4.new_code_cell(_parameters("site_budget", scenarios)))
+    client = NotebookClient(nb, timeout=CELL_TIMEOUT, kernel_name="python3",
+                            store_widget_state=False,
+                            resources={"metadata": {"path": str(tmp_path)}})
+    with client.setup_kernel():
+        for _ in range(2):
+            for i, cell in enumerate(nb.cells):
+                client.execute_cell(cell, i)
+    outs = _outputs(nb)
+    assert not [o for o in outs if o.output_type == "error"]
+    assert "ridge" in nb.cells[-1].outputs[-1]["data"]["text/plain"]
+
+
+def test_saved_outputs_read_well_before_running(scenarios, tmp_path):
+    """What a colleague sees in a saved notebook before running it: a line per app saying
+    what it showed and to run the cells, not the widget's repr nor an empty HTML()."""
+    nb = nbformat.read(NOTEBOOKS / "site_budget.ipynb", as_version=4)
+    nb.cells.insert(1, nbformat.v4.new_code_cell(_parameters("site_budget", scenarios)))
+    nb = _execute(nb, tmp_path, store_widget_state=True)
+    texts = [o["data"]["text/plain"] for o in _outputs(nb) if "data" in o]
+    assert ("[Site budget explorer · ridge · conifer_forest · 2021: an interactive app. Run "
+            "the notebook's cells (Run > Run All Cells) to show and use it.]") in texts
+    assert not [t for t in texts if t.startswith(("SiteExplorer(", "HTML(", "Progress("))]

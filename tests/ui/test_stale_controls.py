@@ -32,7 +32,7 @@ def test_sobol_figure_keeps_the_analysed_receptor_until_run(session):
     assert "conifer_forest" in app.fig.layout.title.text and len(app.fig.data[0].y)
     app.receptor_w.value = "grass"
     assert app.progress.label.value.startswith("changed: press Run analysis")
-    assert "ridge · conifer_forest · 2021-2021" in app.progress.label.value
+    assert "ridge · conifer_forest · 2021)" in app.progress.label.value     # one year: "2021"
     app.output_w.value = "S total"       # redrawn from the analysis that was run
     assert "conifer_forest" in app.fig.layout.title.text
     assert len(app.fig.data[0].y) > 0                      # not an empty figure

@@ -81,6 +81,31 @@ def test_sobol_app_shows_its_progress_in_words(session):
     assert any(re.fullmatch(r"engine runs for the Sobol indices: \d+ of \d+", t)
                for t in texts)                            # the bar of the app, in words
     assert app.progress.label.value.startswith("analysis done")
+    # seen in the walk-through: a drop-down labelled "N" (the sample count) beside
+    # "total: N total"; "2021-2021" for one year; "potential_acidity" and "1.89e+03"
+    assert app.samples_w.description == "base samples"
+    app.samples_w.value = [v for v in app.samples_w.options if v != app.samples_w.value][0]
+    assert app.progress.label.value == ("changed: press Run analysis (the figure shows "
+                                        "ridge · conifer_forest · 2021)")
+
+
+def test_sobol_figure_words_and_base():
+    import pandas as pd
+
+    from workbench.ui.figures_sensitivity import sensitivity_spec
+    tornado = pd.DataFrame({"site": "a", "receptor": "grass", "period": "2021",
+                            "element": "S+N", "quantity": "potential_acidity",
+                            "factor": ["f1"], "low": [0.5], "high": [2.0],
+                            "output_low": [1800.0], "output_high": [2100.0],
+                            "output_base": [1890.0]})
+    sobol = pd.DataFrame({"site": "a", "receptor": "grass", "period": "2021",
+                          "element": "S+N", "quantity": "potential_acidity", "factor": ["f1"],
+                          "S1": [0.3], "S1_conf": [0.05], "ST": [0.6], "ST_conf": [0.05]})
+    spec = sensitivity_spec(sobol, tornado, "a", "grass", "2021", "S+N", "potential_acidity")
+    assert spec["layout"]["title"]["text"].startswith("Sensitivity of S+N potential acidity")
+    titles = [v["title"]["text"] for k, v in spec["layout"].items()
+              if k.startswith("xaxis") and "title" in v]
+    assert "eq/ha per period (base 1,890)" in titles
 
 
 def _components(missing=()):
@@ -162,3 +187,20 @@ def test_sweep_without_effect_says_why(session):
         app.run()
     assert "no effect over the sweep" in app.note_w.value
     assert "no HNO3 left" in app.note_w.value
+
+
+def test_network_trend_table_headings_in_words(two_sites_2021):
+    """The walk-through's network table headed its columns S_trend, ex_acidity_eq_ha_yr,
+    exceedance_status; the frame keeps those names (handover tables), the page words."""
+    import warnings
+
+    from workbench.ui.apps_more import NetworkOverview
+    from workbench.ui.session import Session
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        net = NetworkOverview(Session.open(two_sites_2021), years=(2021, 2021))
+    page = net.analysis_w.value
+    for name in ("S trend", "acidity exceedance", "nutrient-N exceedance", "status of the totals"):
+        assert f">{name}<" in page, name
+    assert "ex_acidity_eq_ha_yr" not in page and "S_trend" not in page
+    assert "ex_acidity_eq_ha_yr" in net.analysis.columns

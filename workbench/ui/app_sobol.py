@@ -13,7 +13,8 @@ import dataclasses
 import ipywidgets as widgets
 import pandas as pd
 
-from .controls import Progress, caution_box, figure_widget, open_with_progress, refresh
+from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
+                       refresh)
 from .figures_sensitivity import sensitivity_figure
 from .session import Session
 
@@ -25,7 +26,7 @@ OUTPUT_CHOICES = {"N total": ("N", "total"), "N dry": ("N", "dry"), "N wet": ("N
                   "potential acidity": ("S+N", "potential_acidity")}
 
 
-class SobolExplorer(widgets.VBox):
+class SobolExplorer(SavedText, widgets.VBox):
     """Sobol bars and a tornado for one site, receptor and span of years.
 
     Attributes
@@ -35,6 +36,14 @@ class SobolExplorer(widgets.VBox):
         :func:`~workbench.analysis.sensitivity.tornado`), one row per year.
     fig : plotly.graph_objects.FigureWidget
     """
+
+    title = "Sobol indices and tornado"
+
+    def shown_what(self) -> str:
+        try:
+            return f"{self.site_w.value} · {self.receptor_w.value}"
+        except AttributeError:          # while being built
+            return ""
 
     @classmethod
     def from_scenario(cls, scenario_path, **kw) -> "SobolExplorer":
@@ -60,7 +69,9 @@ class SobolExplorer(widgets.VBox):
         self.output_w = widgets.Dropdown(options=list(OUTPUT_CHOICES), value=output,
                                          description="total")
         self.samples_w = widgets.Dropdown(options=SAMPLES, value=samples or (
-            opt.samples if opt.samples in SAMPLES else 64), description="N")
+            opt.samples if opt.samples in SAMPLES else 64), description="base samples")
+        # "N" alone (SALib's name) read as nitrogen beside "total: N total"
+        self.samples_w.tooltip = "N of the Saltelli sampling (SALib): more samples, more engine runs"
         self.run_w = widgets.Button(description="Run analysis", icon="play",
                                     button_style="primary")
         self.bar_w = widgets.Label("")
@@ -102,7 +113,7 @@ class SobolExplorer(widgets.VBox):
         if self.shown:
             site, rec, (y0, y1) = self.shown
             self.progress.step("changed: press Run analysis (the figure shows "
-                               f"{site} · {rec} · {y0}-{y1})", 0.0)
+                               f"{site} · {rec} · {y0 if y0 == y1 else f'{y0}-{y1}'})", 0.0)
 
     def _figure(self):
         el, quantity = OUTPUT_CHOICES[self.output_w.value]

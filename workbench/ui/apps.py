@@ -16,8 +16,8 @@ import ipywidgets as widgets
 
 from . import figures, figures_dry, figures_wet
 from .assumptions import ASSUMPTIONS, Settings
-from .controls import (Progress, caution_box, figure_widget, make_control, open_with_progress,
-                       refresh, set_quietly, table_html, wrap_labels_style)
+from .controls import (Progress, SavedText, caution_box, figure_widget, make_control,
+                       open_with_progress, refresh, set_quietly, table_html, wrap_labels_style)
 from .scheme_tab import SchemeTab
 from .session import Session, output_dir
 from .palette import TEMPLATE
@@ -39,7 +39,7 @@ FIGURE_WIDTH = 660
 GASES = ("SO2", "HNO3", "NH3", "NO2")
 
 
-class SiteExplorer(widgets.VBox):
+class SiteExplorer(SavedText, widgets.VBox):
     """Budget of one site and some years, with every assumption at hand.
 
     Parameters
@@ -70,6 +70,14 @@ class SiteExplorer(widgets.VBox):
     latency_s : float
         Time of the last change, from the control to the updated figures [s].
     """
+
+    title = "Site budget explorer"
+
+    def shown_what(self) -> str:
+        try:
+            return f"{self.site} · {self.receptor_w.value} · {self._span()}"
+        except AttributeError:          # while being built
+            return ""
 
     @classmethod
     def from_scenario(cls, scenario_path, **kw) -> "SiteExplorer":

@@ -13,7 +13,8 @@ from ..analysis.exceedance import (REGIONS, acidity_exceedance, not_determined,
                                    nutrient_n_exceedance)
 from ..analysis.trends import MIN_YEARS
 from ..analysis.whatif import GROUP_TEXT, GROUPS, MODES, group_deposition, path_table, plain_statement
-from .controls import Progress, caution_box, figure_widget, open_with_progress, refresh, table_html
+from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
+                       refresh, table_html)
 from .figures_analysis import clf_spec
 from .session import Session
 from .summaries import RANKABLE, total_rates
@@ -48,7 +49,7 @@ def path_display(path: pd.DataFrame) -> pd.DataFrame:
     return t.rename(columns=PATH_HEADINGS)
 
 
-class CriticalLoadsExplorer(widgets.VBox):
+class CriticalLoadsExplorer(SavedText, widgets.VBox):
     """One site, receptor and year against the critical load function, with a what-if path.
 
     Attributes
@@ -61,6 +62,14 @@ class CriticalLoadsExplorer(widgets.VBox):
         The last plain statement of what the cuts do.
     fig : plotly.graph_objects.FigureWidget
     """
+
+    title = "Critical loads and what-if cuts"
+
+    def shown_what(self) -> str:
+        try:
+            return f"{self.site_w.value} · {self.receptor_w.value} · {self.year_w.value}"
+        except AttributeError:          # while being built
+            return ""
 
     @classmethod
     def from_scenario(cls, scenario_path, **kw) -> "CriticalLoadsExplorer":
@@ -84,6 +93,9 @@ class CriticalLoadsExplorer(widgets.VBox):
                                            value="air_and_wet", description="what is cut",
                                            layout=widgets.Layout(width="auto"))
         self.text_w = widgets.HTML("")
+        #: why the control just moved changes nothing shown (empty when it does)
+        self.effect_w = widgets.HTML("", layout=widgets.Layout(min_height="1.4em"))
+        self.effect_w.add_class("wb-no-effect")
         self.table_w = widgets.HTML("")
         self.fig = figure_widget(clf_spec({}))
         self.unc_options = self._uncertainty_options(session)
@@ -103,7 +115,8 @@ class CriticalLoadsExplorer(widgets.VBox):
         super().__init__([widgets.HTML("<h3>Critical loads and what-if cuts</h3>"), caution_box(),
                           widgets.HBox([self.site_w, self.receptor_w, self.year_w]),
                           widgets.HBox([widgets.VBox(list(self.cut_w.values())), self.mode_w]),
-                          self.range_w, self.progress, self.text_w, self.fig, self.table_w])
+                          self.range_w, self.progress, self.effect_w, self.text_w, self.fig,
+                          self.table_w])
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
         self.figure_export = FigureExport(
             lambda: {f"{self.site_w.value} {self.year_w.value}": self.fig}, "critical-loads")
@@ -111,8 +124,27 @@ class CriticalLoadsExplorer(widgets.VBox):
         self._load()
 
     def _on_control(self, change):
-        if not self._filling:
-            self.draw()
+        if self._filling:
+            return
+        self.draw()
+        group = next((g for g, w in self.cut_w.items() if w is change["owner"]), None)
+        self.effect_w.value = self.no_effect_html(group) if group else ""
+
+    def no_effect_html(self, group) -> str:
+        """Why the cut of `group` changes nothing shown (:func:`cut_no_effect_text`) as
+        a line of the page, or ``""`` when it changes something."""
+        from .no_effect import cut_no_effect_text, missing_species
+        from .summaries import component_rates
+        if self.path is None:            # no critical load function: the page says so
+            return ""
+        sel = (self.site_w.value, self.receptor_w.value, self.year_w.value)
+        parts = {k: float(v) for k, v in self.parts.sel(
+            site=sel[0], receptor=sel[1], period=sel[2]).data_vars.items()}
+        comps = component_rates(self.result.years, *sel[:2], [str(sel[2])])
+        cuts = {g: w.value / 100.0 for g, w in self.cut_w.items()}
+        text = cut_no_effect_text(group, parts, self.loads(), cuts, self.mode_w.value,
+                                  missing_species(comps, group))
+        return (f"<p style='color:#0072B2'><i>{html.escape(text)}</i></p>" if text else "")
 
     def _on_site(self, change):
         self._filling = True
@@ -129,6 +161,7 @@ class CriticalLoadsExplorer(widgets.VBox):
         result = self.session.run(self.session.baseline, self.site_w.value, *self.years,
                                   resolution="year")
         self.result, self._draws = result, None
+        self.effect_w.value = ""
         self.parts = group_deposition(result.years)
         labels = [str(p) for p in self.parts["period"].values]
         self._filling = True
@@ -204,8 +237,8 @@ class CriticalLoadsExplorer(widgets.VBox):
         nut = nutrient_n_exceedance(first["n_dep_eq_ha_yr"], loads.get("cl_nut_n", np.nan))
         row = self.ranges(loads, sel)
         self.range_text = "" if row is None else _range_text(row, self.unc_options.draws)
-        self.statement = (plain_statement(parts, cuts, {"cl_nut_n": np.nan, **loads}, mode, where)
-                          + self.range_text)
+        self.statement = (sentences(plain_statement(parts, cuts, {"cl_nut_n": np.nan, **loads},
+                                                    mode, where)) + self.range_text)
         self.status_note = status_note(self.result.years, *sel.values())
         lower = lower_bound(self.result.years, *sel.values())
         if lower:
@@ -226,6 +259,17 @@ class CriticalLoadsExplorer(widgets.VBox):
                                    self.path, where, MODES[mode], ranges=row))
         self.table_w.value = table_html(path_display(self.path))
         return self.statement
+
+
+def sentences(text: str) -> str:
+    """Every sentence after the first starting with a capital letter (the what-if
+    statement read "... ends the acidity exceedance. cutting sulfur by 30 % ...").
+
+    >>> sentences("a: cutting S ends it. cutting N ends it.")
+    'a: cutting S ends it. Cutting N ends it.'
+    """
+    import re
+    return re.sub(r"([.!?] )([a-z])", lambda m: m.group(1) + m.group(2).upper(), text)
 
 
 def lower_bound(years_ds, site, receptor, period) -> bool:

@@ -9,8 +9,8 @@ import pandas as pd
 
 from . import figures
 from .assumptions import ASSUMPTIONS, Settings
-from .controls import (Progress, caution_box, figure_widget, open_with_progress, refresh,
-                       table_html, wrap_labels_style)
+from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
+                       refresh, table_html, wrap_labels_style)
 from .session import Session
 from .summaries import UNITS, network_ranking, network_table
 
@@ -33,7 +33,7 @@ def sweep_values(a, low=None, high=None, steps=SWEEP_STEPS) -> list:
     return [float(v) for v in np.round(np.linspace(lo, hi, int(steps)), 6)]
 
 
-class SensitivityExplorer(widgets.VBox):
+class SensitivityExplorer(SavedText, widgets.VBox):
     """Pick one assumption and a range; see how each total responds.
 
     The baseline (the scenario's setting) is marked; for a number left to the model
@@ -46,6 +46,14 @@ class SensitivityExplorer(widgets.VBox):
         The last sweep (``value, total, rate, status``).
     fig : plotly.graph_objects.FigureWidget
     """
+
+    title = "Sensitivity explorer"
+
+    def shown_what(self) -> str:
+        try:
+            return f"{self.site_w.value} · {self.key_w.value}"
+        except AttributeError:          # while being built
+            return ""
 
     @classmethod
     def from_scenario(cls, scenario_path, **kw) -> "SensitivityExplorer":
@@ -195,12 +203,28 @@ class SensitivityExplorer(widgets.VBox):
             "no effect on the totals", "no effect over the sweep on the totals"))
 
 
-class NetworkOverview(widgets.VBox):
+#: Headings of the network's trend and exceedance table as shown (the frame keeps the
+#: column names of the handover tables: ``S_trend``, ``ex_acidity_eq_ha_yr``...).
+ANALYSIS_HEADINGS = {"S_trend": "S trend", "N_trend": "N trend",
+                     "ex_acidity_eq_ha_yr": "acidity exceedance",
+                     "ex_nutrient_n_eq_ha_yr": "nutrient-N exceedance",
+                     "exceedance_status": "status of the totals"}
+
+
+class NetworkOverview(SavedText, widgets.VBox):
     """All sites side by side: annual totals over the years and a ranking.
 
     A total built on a partial set of species (or failing completeness) is drawn with
     open markers and never ranked beside complete ones.
     """
+
+    title = "Network overview"
+
+    def shown_what(self) -> str:
+        try:
+            return f"{self.years[0]}-{self.years[1]}"
+        except AttributeError:          # while being built
+            return ""
 
     @classmethod
     def from_scenario(cls, scenario_path, **kw) -> "NetworkOverview":
@@ -230,7 +254,8 @@ class NetworkOverview(widgets.VBox):
                                        "and critical-load exceedance of the span "
                                        "[eq/ha/yr]</b>"
                                        "<div style='overflow-x:auto;max-width:100%'>"
-                                       + table_html(self.analysis) + "</div>")
+                                       + table_html(self.analysis.rename(
+                                           columns=ANALYSIS_HEADINGS)) + "</div>")
         # the two rankings side by side where the window is wide enough, else one
         # under the other (a plot drawn in a notebook does not know its box's width)
         rankings = widgets.HBox([self.figs["S"], self.figs["N"]],

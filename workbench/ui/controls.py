@@ -280,7 +280,10 @@ def refresh(widget: go.FigureWidget, fig) -> dict:
     -----
     When the new figure has the same number and types of traces as the one shown
     (the usual case), only the properties whose values changed are sent, in one
-    ``plotly_update`` (the message a batched update sends); the spec functions build
+    ``plotly_update`` (the message a batched update sends), each with its value for
+    every trace that has it (never plotly's ``Undefined`` for a trace holding the
+    property: the front end would hand the drawn value back as a default and plotly's
+    Python side drop it, tests/ui/test_widget_data.py); the spec functions build
     valid plotly JSON, and their figures are validated where they are built as plotly
     objects (the ``budget_bars`` ... functions and their tests).  Otherwise the traces
     are replaced through plotly's validated objects.
@@ -298,14 +301,19 @@ def refresh(widget: go.FigureWidget, fig) -> dict:
         keep_state(widget)
         return {"restyled": len(types), "relayout": len(spec["layout"]), "replaced": True}
     n = len(types)
-    restyle: dict = {}
     new_traces = [_flatten(t) for t in spec["data"]]
-    for i, (old, new) in enumerate(zip(shown["traces"], new_traces)):
-        for k in new.keys() | old.keys():
-            v = new.get(k)
-            if k in old and k in new and _equal(old[k], v):
-                continue
-            restyle.setdefault(k, [Undefined] * n)[i] = v
+    changed = {k for old, new in zip(shown["traces"], new_traces) for k in new.keys() | old.keys()
+               if not (k in old and k in new and _equal(old[k], new[k]))}
+    # a changed property goes to every trace that has it, with its value (None: no
+    # longer set), never with plotly's placeholder for "as it is" (Undefined): the
+    # widget's front end stores the placeholder as the trace's value in its copy of the
+    # figure, finds the drawn value differs and sends it back as a default, and plotly's
+    # Python side then drops the property from the trace (bars the page showed held
+    # y = None in Python).  A trace without the property before and after gets the
+    # placeholder: it has nothing to drop, and None would be an invalid path for it
+    # (marker.pattern of a scatter trace).
+    restyle = {k: [new[k] if k in new else None if k in old else Undefined
+                   for old, new in zip(shown["traces"], new_traces)] for k in sorted(changed)}
     new_layout = _flatten(spec["layout"])
     relayout = {k: new_layout.get(k) for k in new_layout.keys() | shown["layout"].keys()
                 if not (k in new_layout and k in shown["layout"]
@@ -320,9 +328,11 @@ def refresh(widget: go.FigureWidget, fig) -> dict:
     if restyle or relayout:
         widget.plotly_update(restyle_data=restyle, relayout_data=relayout,
                              trace_indexes=list(range(n)))
+    shown_before = shown["traces"]
     shown.update(traces=new_traces, layout=new_layout, spec=spec)
     keep_state(widget)
-    return {"restyled": sum(sum(v is not Undefined for v in vals) for vals in restyle.values()),
+    return {"restyled": sum(not (k in old and k in new and _equal(old[k], new[k]))
+                            for k in changed for old, new in zip(shown_before, new_traces)),
             "relayout": len(relayout) + len(compound), "replaced": False}
 
 
@@ -434,13 +444,46 @@ def short_errors() -> bool:
     return True
 
 
+class SavedText:
+    """Mixin of the apps: the line a saved notebook keeps in place of the app.
+
+    A notebook opened without running it (a colleague's copy, with its outputs) shows
+    a widget's plain-text form where the widget cannot be drawn; ipywidgets' own is the
+    widget's repr cut at 110 characters (``SiteExplorer(children=(HTML(value='<h3>...``).
+    The apps give :meth:`saved_text` instead.
+    """
+
+    #: What the app is, in words (the start of the line).
+    title = "workbench app"
+
+    def shown_what(self) -> str:
+        """What the app shows (site, years...), or ``""``."""
+        return ""
+
+    def saved_text(self) -> str:
+        what = self.shown_what()
+        return (f"[{self.title}{' · ' + what if what else ''}: an interactive app. Run the "
+                "notebook's cells (Run > Run All Cells) to show and use it.]")
+
+    def _repr_mimebundle_(self, **kwargs):
+        data = super()._repr_mimebundle_(**kwargs)
+        data["text/plain"] = self.saved_text()
+        return data
+
+
 def open_with_progress(cls, scenario_path, **kw):
     """Open a scenario with a progress bar shown while the inputs are read, then `cls`
-    (a bad input or scenario is shown as its one located message, :func:`short_errors`)."""
+    (a bad input or scenario is shown as its one located message, :func:`short_errors`).
+
+    `scenario_path` is found as a notebook's first cell says
+    (:func:`workbench.ui.notebook_paths.scenario_path`): ``"demo"``, absolute, or
+    relative to the notebook (then to the working directory)."""
     from ..errors import WorkbenchError
+    from .notebook_paths import scenario_path as find
     from .session import Session
     from IPython.display import display
     short_errors()
+    scenario_path = find(scenario_path)       # beside the notebook, or a clear message
     prog = Progress()
     handle = display(prog, display_id=True)
     prog.start("opening the scenario")
@@ -452,6 +495,6 @@ def open_with_progress(cls, scenario_path, **kw):
     prog.step("first run", 0.85)
     app = cls(session, progress=prog, **kw)
     prog.done("ready")
-    if handle is not None:
-        handle.update(widgets.HTML(""))
+    if handle is not None:      # no bar left behind (and no "HTML(value='')" in a saved file)
+        handle.update({"text/plain": ""}, raw=True)
     return app

@@ -69,9 +69,12 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
                                             f"%{{x:+.3g}}<extra></extra>",
                            "marker": {"color": colour}, "xaxis": x2.replace("axis", ""),
                            "yaxis": y2.replace("axis", "")})
-        layout[x2]["title"] = {"text": f"{_UNITS.get(element, '')} (base {base:.3g})"}
+        # the baseline as the tables write it ("1,890", not "1.89e+03")
+        shown = f"{base:,.0f}" if abs(base) >= 1000 else f"{base:.3g}"
+        layout[x2]["title"] = {"text": f"{_UNITS.get(element, '')} (base {shown})"}
     layout.update({"barmode": "overlay", "height": 120 + 28 * max(len(s), len(t), 4),
-                   "title": {"text": f"Sensitivity of {element} {quantity} · {site} · "
+                   "title": {"text": f"Sensitivity of {element} {quantity.replace('_', ' ')} · "
+                                     f"{site} · "
                                      f"{receptor} · {period}"}})
     layout[x1]["range"] = [0, 1.05]
     return {"data": traces, "layout": layout}

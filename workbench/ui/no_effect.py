@@ -1,7 +1,9 @@
 """Why a control of an app left every total as it was, where the inputs tell.
 
 The site explorer adds this text after its change line when a control moved nothing
-(:meth:`workbench.ui.apps.SiteExplorer._on_control`).
+(:meth:`workbench.ui.apps.SiteExplorer._on_control`); the critical-loads explorer shows
+:func:`cut_no_effect_text` when a cut slider changes nothing shown
+(:meth:`workbench.ui.apps_analysis.CriticalLoadsExplorer._on_control`).
 """
 from __future__ import annotations
 
@@ -80,3 +82,96 @@ def no_effect_text(key, label, components: pd.DataFrame, collector="wet_only",
             reasons.append("a bulk collector: its wet deposition holds the particle dry "
                            "deposition, counted 0 in the dry pathway; docs/budget.md")
     return head + (f" ({'; '.join(reasons)})" if reasons else ".")
+
+
+def _group_species(group: str) -> tuple:
+    from ..budget import OXIDIZED_N, REDUCED_N
+    return {"S": ("SO2", "pSO4", "SO4"), "NOx": OXIDIZED_N, "NHx": REDUCED_N}[group]
+
+
+def missing_species(components: pd.DataFrame, group: str) -> list:
+    """Species of a cut group (S, NOx, NHx) with no data in `components`
+    (:func:`component_rates` of one site and period): every row of it ``missing``."""
+    rows = components[components["species"].isin(_group_species(group))
+                      & ((components["element"] == "S") == (group == "S"))]
+    return sorted(str(sp) for sp, st in rows.groupby("species")["status"]
+                  if (st == "missing").all())
+
+
+def cut_no_effect_text(group, parts, loads, cuts, mode="air_and_wet", missing=()) -> str:
+    """Why a cut of the critical-loads explorer changes nothing shown, or ``""``.
+
+    Parameters
+    ----------
+    group : {"S", "NOx", "NHx"}
+        The group whose cut slider moved.
+    parts : mapping
+        ``<group>_<pathway>`` deposition of the site and year shown [eq ha-1 yr-1]
+        (:func:`workbench.analysis.whatif.group_deposition`).
+    loads : mapping
+        ``cl_max_s``, ``cl_min_n``, ``cl_max_n`` and (optional) ``cl_nut_n``
+        [eq ha-1 yr-1].
+    cuts : mapping
+        group -> fraction cut [1], the slider's new value included.
+    mode : {"air_and_wet", "air_only"}
+    missing : list of str
+        The group's species without data here (:func:`missing_species`).
+
+    Returns
+    -------
+    str
+        ``"cut <group>: no effect on the deposition or the exceedances (<why>)"`` when
+        the cut moves no deposition (nothing of the group here, missing species
+        counted 0, or only air cut and the group all wet);
+        ``"cut <group>: the deposition moves, the exceedances stay as they were
+        (<why>)"`` when the acidity and nutrient-N exceedances and the fractions that end
+        them are those without this cut (no exceedance to end, none computable, or
+        other groups end it); ``""`` when the cut changes what is shown or is 0.
+    """
+    import numpy as np
+
+    from ..analysis.exceedance import acidity_exceedance, nutrient_n_exceedance
+    from ..analysis.whatif import GROUP_TEXT, scaled, smallest_fraction
+    if not float(cuts.get(group, 0.0)) > 0:
+        return ""
+    name = GROUP_TEXT[group]
+    loads = {"cl_nut_n": np.nan, **loads}
+    without = {**cuts, group: 0.0}
+    dep, dep0 = scaled(parts, cuts, mode), scaled(parts, without, mode)
+    if np.allclose(dep, dep0, equal_nan=True):
+        wet, dry = float(parts[f"{group}_wet"]), float(parts[f"{group}_dry"])
+        if missing and not (wet > 0 or dry > 0):
+            why = f"no {', '.join(missing)} data here, counted 0"
+        elif mode == "air_only" and wet > 0:
+            why = (f"only the air concentrations are cut, and the {name} deposition here "
+                   "is all wet")
+        else:
+            why = f"no {name} deposition here"
+        return f"cut {name}: no effect on the deposition or the exceedances ({why})"
+
+    def shown(c):
+        s, n = scaled(parts, c, mode)
+        s, n = max(float(s), 0.0), max(float(n), 0.0)
+        acid = acidity_exceedance(s, n, loads["cl_max_s"], loads["cl_min_n"], loads["cl_max_n"])
+        return np.array([float(acid.exceedance), float(nutrient_n_exceedance(n, loads["cl_nut_n"])),
+                         *(float(v) for v in smallest_fraction(parts, c, loads, mode))])
+    if not np.allclose(shown(cuts), shown(without), equal_nan=True):
+        return ""
+    acid0, nut0 = shown({})[:2]
+    if np.isnan([acid0, nut0]).all():
+        why = "no critical load here: no exceedance can be computed"
+    elif acid0 == 0 and nut0 == 0:
+        why = "no acidity or nutrient-N exceedance here to end"
+    else:
+        reasons = []
+        for what, ex in (("acidity", acid0), ("nutrient-N", nut0)):
+            if np.isnan(ex):
+                reasons.append(f"no {what} critical load")
+            elif ex == 0:
+                reasons.append(f"no {what} exceedance here")
+            elif what == "nutrient-N" and group == "S":
+                reasons.append("sulfur does not count in the nutrient-N exceedance")
+            else:
+                reasons.append(f"the {what} exceedance here does not follow this cut")
+        why = "; ".join(reasons)
+    return f"cut {name}: the deposition moves, the exceedances stay as they were ({why})"
