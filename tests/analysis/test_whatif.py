@@ -70,6 +70,19 @@ def test_unreachable_and_not_exceeded():
     assert "leaves a nutrient-N exceedance" in text
 
 
+def test_every_sentence_starts_with_a_capital():
+    # the second sentence read "... exceedance. cutting sulfur by 30 % ..." (common
+    # writing practice: a sentence starts with a capital letter)
+    parts = {"S_wet": 300.0, "S_dry": 300.0, "NOx_wet": 400.0, "NOx_dry": 400.0,
+             "NHx_wet": 0.0, "NHx_dry": 0.0}
+    loads = {"cl_max_s": 450.0, "cl_min_n": 0.0, "cl_max_n": 2000.0, "cl_nut_n": 500.0}
+    for where in ("", "ridge"):
+        text = plain_statement(parts, {"S": 1.0, "NOx": 1.0}, loads, where=where)
+        sentences = text.removeprefix("ridge: ").split(". ")
+        assert len(sentences) == 2, text
+        assert all(s[0].isupper() for s in sentences), text
+
+
 def test_air_only_leaves_wet_deposition():
     s, n = scaled(PARTS, {"S": 1.0, "NOx": 1.0, "NHx": 1.0}, "air_only")
     assert s == PARTS["S_wet"] and n == PARTS["NOx_wet"] + PARTS["NHx_wet"]

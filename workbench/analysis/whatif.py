@@ -213,7 +213,7 @@ def plain_statement(parts, cuts, loads, mode="air_and_wet", where="") -> str:
     ...          "NHx_wet": 0.0, "NHx_dry": 0.0}
     >>> loads = {"cl_max_s": 450.0, "cl_min_n": 0.0, "cl_max_n": 900.0, "cl_nut_n": 500.0}
     >>> print(plain_statement(parts, {"S": 0.5}, loads, where="test"))
-    test: cutting sulfur by 25 % (air concentrations and wet deposition cut together) ends the acidity exceedance. There is no nutrient-N exceedance.
+    test: Cutting sulfur by 25 % (air concentrations and wet deposition cut together) ends the acidity exceedance. There is no nutrient-N exceedance.
     """
     t_acid, t_nut = (float(v) for v in smallest_fraction(parts, cuts, loads, mode))
     head = f"{where}: " if where else ""
@@ -230,7 +230,7 @@ def plain_statement(parts, cuts, loads, mode="air_and_wet", where="") -> str:
             out.append(f"Even cutting {_cuts_text(cuts, 1.0)} ({label}) leaves {article} "
                        f"{name} exceedance.")
         else:
-            out.append(f"cutting {_cuts_text(cuts, t)} ({label}) ends the {name} exceedance.")
+            out.append(f"Cutting {_cuts_text(cuts, t)} ({label}) ends the {name} exceedance.")
     paths = ("dry", "wet") if mode == "air_and_wet" else ("dry",)
     net = [f"{GROUP_TEXT[g]} {p}" for g in GROUPS if float(cuts.get(g, 0.0)) > 0
            for p in paths if float(parts[f"{g}_{p}"]) < 0]
@@ -238,5 +238,4 @@ def plain_statement(parts, cuts, loads, mode="air_and_wet", where="") -> str:
         out.append(f"Here {' and '.join(net)} deposition is a net emission: the cut scales "
                    "it as a flux in proportion to the concentration, which an exchange "
                    "flux is not, so this estimate is rough.")
-    text = " ".join(out)
-    return head + text[0].upper() + text[1:] if not head else head + text
+    return head + " ".join(out)        # every sentence starts with a capital letter

@@ -237,8 +237,8 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         nut = nutrient_n_exceedance(first["n_dep_eq_ha_yr"], loads.get("cl_nut_n", np.nan))
         row = self.ranges(loads, sel)
         self.range_text = "" if row is None else _range_text(row, self.unc_options.draws)
-        self.statement = (sentences(plain_statement(parts, cuts, {"cl_nut_n": np.nan, **loads},
-                                                    mode, where)) + self.range_text)
+        self.statement = (plain_statement(parts, cuts, {"cl_nut_n": np.nan, **loads},
+                                          mode, where) + self.range_text)
         self.status_note = status_note(self.result.years, *sel.values())
         lower = lower_bound(self.result.years, *sel.values())
         if lower:
@@ -259,17 +259,6 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
                                    self.path, where, MODES[mode], ranges=row))
         self.table_w.value = table_html(path_display(self.path))
         return self.statement
-
-
-def sentences(text: str) -> str:
-    """Every sentence after the first starting with a capital letter (the what-if
-    statement read "... ends the acidity exceedance. cutting sulfur by 30 % ...").
-
-    >>> sentences("a: cutting S ends it. cutting N ends it.")
-    'a: cutting S ends it. Cutting N ends it.'
-    """
-    import re
-    return re.sub(r"([.!?] )([a-z])", lambda m: m.group(1) + m.group(2).upper(), text)
 
 
 def lower_bound(years_ds, site, receptor, period) -> bool:
