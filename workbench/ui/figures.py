@@ -460,6 +460,6 @@ def network_ranking_bars(ranking: pd.DataFrame, element: str, unit="kg/ha/yr",
                       xaxis_title=axis_text(unit, element=element), yaxis_title="rank · site",
                       yaxis=dict(autorange="reversed", categoryorder="array",
                                  categoryarray=labels),
-                      legend=dict(orientation="h", yanchor="top", y=-0.18, x=0),
+                      showlegend=False,        # each bar's label names its group
                       template=template, height=HEIGHT, margin=dict(b=160))
     return fig
