@@ -16,15 +16,6 @@ def _span(rows):
                           "years_used": y} for s, v, st, m, y in rows])
 
 
-def test_why_text_joins_years_of_one_reason():
-    assert summaries.why_text([("2016", "partial (no NO2)"), ("2017", "partial (no NO2)"),
-                               ("2018", "partial (no NO2)"), ("2020", "flagged"),
-                               ("2021", "partial (no NO2)")]) == \
-        "2016-2018, 2021: partial (no NO2); 2020: flagged"
-    assert summaries.why_text([("2019-07", "flagged")]) == "2019-07: flagged"
-    assert summaries.why_text([]) == ""
-
-
 def test_nothing_ranked_says_so_in_the_plot():
     r = summaries.network_ranking(_span([]).reindex(columns=_span(
         [("x", 1.0, "complete", "", "2016")]).columns), "N", sites=["fell", "mere"])

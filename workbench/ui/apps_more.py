@@ -13,7 +13,8 @@ from .assumptions import ASSUMPTIONS, Settings
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh, table_html, wrap_labels_style)
 from .session import Session
-from .summaries import UNITS, network_ranking, network_span, network_table
+from .summaries import (UNITS, network_ranking, network_span, network_table,
+                        total_heading)
 
 #: Default number of values of a swept number.
 SWEEP_STEPS = 6
@@ -177,7 +178,7 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         show = shown.pivot_table(index="value", columns="total", values="rate", sort=False)
         notes = shown.groupby("total", sort=False)["status"].agg(figures.status_note)
         # every number its unit, and a total that is not whole says so in its heading
-        show.columns = [f"{c} [{unit}]{notes.get(c, '')}" for c in show.columns]
+        show.columns = [f"{total_heading(c, unit)}{notes.get(c, '')}" for c in show.columns]
         show.columns.name = None
         self.table_w.value = table_html(show.reset_index().rename(
             columns={"value": a.label if "[" in a.label else f"{a.label} (setting)"}))

@@ -31,6 +31,20 @@ CM_PER_M = 100.0
 HALF_HOUR = np.timedelta64(30, "m")
 
 
+#: A total's name (``S_wet``...) in words, as the headings of the tables say it.
+PATHWAY_WORDS = {"wet": "wet deposition", "dry": "dry deposition", "total": "total"}
+
+
+def total_heading(name: str, unit: str) -> str:
+    """Heading of a total in a table, in words with its unit.
+
+    >>> total_heading("S_wet", "mmol/m2/yr"), total_heading("N_total", "kg/ha/yr")
+    ('S wet deposition [mmol/m2/yr]', 'N total [kg/ha/yr]')
+    """
+    el, _, pw = str(name).partition("_")
+    return f"{el} {PATHWAY_WORDS.get(pw, pw)} [{unit}]" if pw else f"{name} [{unit}]"
+
+
 def axis_text(unit: str, monthly: bool = False, element: str | None = None) -> str:
     """Axis title of a unit, e.g. ``kg S / N ha-1 yr-1`` [text]."""
     text = UNITS[unit][2 if monthly else 1]
@@ -506,29 +520,6 @@ def network_table(year_ds: xr.Dataset, catalogue=None, unit="kg/ha/yr") -> pd.Da
     t = pd.concat(rows, ignore_index=True)
     t["rankable"] = t["status"].isin(RANKABLE) & np.isfinite(t["value"])
     return t[["site", "receptor", "period", "element", "value", "status", "missing", "rankable"]]
-
-
-def _year_span(periods) -> str:
-    """Periods as text, runs of consecutive years joined: ``2016-2019, 2021``."""
-    try:
-        years = sorted(int(str(p)) for p in periods)
-    except ValueError:                       # months or seasons: listed as they are
-        return ", ".join(map(str, periods))
-    runs, start = [], years[0]
-    for a, b in zip(years, years[1:] + [None]):
-        if b != a + 1:
-            runs.append(f"{start}" if start == a else f"{start}-{a}")
-            start = b
-    return ", ".join(runs)
-
-
-def why_text(pairs) -> str:
-    """``"2016-2023: partial (no NO2)"`` from (period, reason) pairs: the periods of one
-    reason together (in order of first appearance), so that a long record stays a line."""
-    by = {}
-    for period, reason in pairs:
-        by.setdefault(reason, []).append(period)
-    return "; ".join(f"{_year_span(ps)}: {reason}" for reason, ps in by.items())
 
 
 def network_span(results, catalogue=None) -> pd.DataFrame:
