@@ -13,34 +13,15 @@ import re
 import numpy as np
 import pandas as pd
 
+# the one ranking rule of report and notebook (and the helpers it shares with them)
+from .ranking import FULL_SET, own_surface_rows, ranking, year_span  # noqa: F401
+from .ranking import years_of as _years
+
 #: More sites than this give the report its network layout (common practice: up to a
 #: handful of sites, a reader follows each one through every table).
 NETWORK_SITES = 8
 #: Tables longer than this many rows are folded (``<details>``) in the network layout.
 FOLD_ROWS = 40
-#: Statuses whose whole-span totals hold every component (``flagged`` span rows hold
-#: every component and pass completeness; they carry kept flagged samples or a
-#: fallback, docs/budget.md "Whole span"); ``partial`` ones lack a component.
-FULL_SET = ("complete", "filled", "flagged")
-
-
-def year_span(years) -> str:
-    """``2016-2019, 2021``: years as text, runs of consecutive years joined.
-
-    >>> year_span([2016, 2017, 2018, 2021]), year_span([]), year_span(["span"])
-    ('2016-2018, 2021', '', 'span')
-    """
-    try:
-        ys = sorted({int(str(y)) for y in years})
-    except ValueError:                      # months, seasons: as they are
-        return ", ".join(dict.fromkeys(map(str, years)))
-    runs = []
-    for y in ys:
-        if runs and y == runs[-1][1] + 1:
-            runs[-1][1] = y
-        else:
-            runs.append([y, y])
-    return ", ".join(f"{a}" if a == b else f"{a}-{b}" for a, b in runs)
 
 
 def fold(content: str, rows: int, what: str) -> str:
@@ -50,20 +31,6 @@ def fold(content: str, rows: int, what: str) -> str:
         return content
     return (f"<details><summary>Show {html.escape(what)} ({rows:,} rows)</summary>"
             f"{content}</details>")
-
-
-def own_surface_rows(frame: pd.DataFrame, catalogue) -> pd.DataFrame:
-    """The rows of `frame` on each site's own land use (its first receptor in `frame`
-    where the catalogue's land use is not among them)."""
-    own = {s.id: s.land_use for s in catalogue}
-    have = frame.groupby("site", sort=False)["receptor"].agg(list)
-    pick = {site: own.get(site) if own.get(site) in recs else recs[0]
-            for site, recs in have.items()}
-    return frame[frame["receptor"] == frame["site"].map(pick)]
-
-
-def _years(text) -> list:
-    return [] if not isinstance(text, str) else text.split()
 
 
 def site_summary(span: pd.DataFrame, catalogue, n_periods: int, trends=None,
@@ -130,48 +97,6 @@ def site_summary(span: pd.DataFrame, catalogue, n_periods: int, trends=None,
         order = {s: i for i, s in enumerate(sites)}
         rows.sort(key=lambda r: order.get(r["site"], len(order)))
     return pd.DataFrame(rows)
-
-
-def ranking(span: pd.DataFrame, element: str, n_periods=None, sites=None) -> pd.DataFrame:
-    """Sites ranked by their whole-span total of `element`, on equal footing only.
-
-    Totals holding every component (:data:`FULL_SET`) are ranked together; partial
-    totals are ranked apart, in one group per set of missing components (sites without
-    NO2 among themselves); a site without a total is listed last, unranked, and so is
-    each of `sites` (the run's) without a span row (no year passes completeness).
-
-    Returns
-    -------
-    pandas.DataFrame
-        ``group, rank, site, value`` [kg/ha/yr], ``status``, ``years used`` ("2019-2025
-        (7 of 10)" with `n_periods`, the run's periods); `rank` counts within the group
-        (empty for the unranked).
-    """
-    e = span[span["element"] == element].copy()
-    absent = [s for s in (sites or []) if s not in set(e["site"].astype(str))]
-    if absent:
-        e = pd.concat([e, pd.DataFrame({"site": absent, "element": element,
-                                        "flux_kg_ha_yr": np.nan, "status": "missing",
-                                        "years_used": None})], ignore_index=True)
-    miss = e["missing_components"].fillna("").astype(str) if "missing_components" in e \
-        else pd.Series("", index=e.index)
-    full = e["status"].astype(str).isin(FULL_SET) & np.isfinite(e["flux_kg_ha_yr"])
-    part = (e["status"].astype(str) == "partial") & np.isfinite(e["flux_kg_ha_yr"])
-    e["group"] = np.where(full, "every component",
-                          np.where(part, "partial: without " + miss.str.split().str.join(", "),
-                                   "no total"))
-    order = {"every component": 0}
-    e["_g"] = e["group"].map(lambda g: order.get(g, 2 if g == "no total" else 1))
-    e = e.sort_values(["_g", "group", "flux_kg_ha_yr"], ascending=[True, True, False])
-    e["rank"] = e.groupby("group").cumcount() + 1
-    e.loc[e["group"] == "no total", "rank"] = np.nan
-    n = e["years_used"].map(lambda t: len(_years(t)))
-    of = f" of {n_periods}" if n_periods else ""
-    e["years used"] = [f"{year_span(_years(t))} ({k}{of})" if k else "none"
-                       for t, k in zip(e["years_used"], n)]
-    out = e.rename(columns={"flux_kg_ha_yr": "value"})
-    out["rank"] = out["rank"].map(lambda r: "" if not np.isfinite(r) else f"{int(r)}")
-    return out[["group", "rank", "site", "value", "status", "years used"]].reset_index(drop=True)
 
 
 def ranking_html(span: pd.DataFrame, table_html, n_periods=None, sites=None) -> list:

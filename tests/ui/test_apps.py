@@ -217,9 +217,9 @@ def test_network_overview_never_ranks_a_partial_total(two_sites_2021):
     ranked_n = app.figs["N"].data[0].y
     assert not any("mere" in y for y in ranked_n) and any("ridge" in y for y in ranked_n)
     assert "mere" in app.apart_w.value
-    assert "value [kg/ha/yr]" in app.apart_w.value        # the unit of the values shown
+    assert "whole span [kg/ha/yr]" in app.apart_w.value        # the unit of the values shown
     app.unit_w.value = "mmol/m2/yr"
-    assert "value [mmol/m2/yr]" in app.apart_w.value
+    assert "whole span [mmol/m2/yr]" in app.apart_w.value
 
 
 def test_year_range_gives_a_bar_per_year_and_the_mean_in_the_change_line(session):

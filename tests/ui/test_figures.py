@@ -176,11 +176,17 @@ def test_partial_totals_are_never_ranked():
         "status": ["complete", "complete", "partial", "complete", "complete", "filled"],
         "missing": ["", "", "NO2", "", "", ""]})
     table["rankable"] = table["status"].isin(summaries.RANKABLE)
-    ranked, apart = summaries.network_ranking(table, "N")
-    assert list(ranked["site"]) == ["c", "a"] and list(ranked["rank"]) == [1, 2]
-    assert list(apart["site"]) == ["b"] and "no NO2" in apart["why"].iloc[0]
-    fig = figures.network_ranking_bars(ranked, apart, "N")
-    assert len(fig.data) == 1 and not any("b" in y for y in fig.data[0].y)
+    span = pd.DataFrame({"site": ["a", "b", "c"], "receptor": "grass", "element": "N",
+                         "flux_kg_ha_yr": [11.0, 30.5, 21.0],
+                         "status": ["complete", "partial", "filled"],
+                         "missing_components": ["", "NO2", ""], "years_used": "2020 2021"})
+    r = summaries.network_ranking(span, "N")
+    full = r[r["group"] == "every component"]
+    assert list(full["site"]) == ["c", "a"] and list(full["rank"]) == ["1", "2"]
+    assert list(r.loc[r["group"] == "partial: without NO2", "site"]) == ["b"]
+    fig = figures.network_ranking_bars(r, "N")
+    assert not any("b" in y for y in fig.data[0].y)
+    assert list(fig.data[1].y) == ["1 · b (without NO2)"]
     tot = figures.network_totals(table)
     b_open = [t for t in tot.data if t.name.startswith("b (partial") and t.xaxis == "x2"][0]
     assert b_open.marker.symbol == "circle-open" and b_open.y[0] == 30.0

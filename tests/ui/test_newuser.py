@@ -147,7 +147,8 @@ def test_sensitivity_table_says_units(session):
     from workbench.ui.apps import SensitivityExplorer
     sens = SensitivityExplorer(session, site="ridge", years=(2021, 2021), key="fixed_velocity.SO2")
     head = sens.table_w.value.split("</thead>")[0]
-    assert "S_total [kg/ha/yr]" in head and "fixed Vd of SO2 [cm/s]" in head
+    assert "S total [kg/ha/yr]" in head and "S wet deposition [kg/ha/yr]" in head
+    assert "_" not in re.sub(r"<[^>]*>", "", head) and "fixed Vd of SO2 [cm/s]" in head
 
 
 def test_a_duplicated_upload_is_told_in_the_explorer(tmp_path):

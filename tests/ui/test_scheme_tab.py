@@ -140,3 +140,36 @@ def test_fixed_velocities_are_named_beside_the_spread(app):
     for g in ("SO2", "HNO3", "NH3", "NO2"):
         app.controls[f"fixed_velocity.{g}"].value = None
     assert "fixed" not in app.schemes.sentence_w.value
+
+
+def test_export_writes_the_tab_figures_once_drawn_for_the_state_shown(app, tmp_path):
+    """"Export figures" of the explorer: the gas-schemes tab's two figures are written
+    when the tab has been drawn for the state on screen, and left out (the message says
+    why) before it is opened or once it shows an earlier state."""
+    control = app.figure_export
+    control.format_w.value = "html"
+    control._folder = lambda: tmp_path / "before"
+    before = control.export()
+    assert not any("gas-schemes" in p.name for p in before)
+    assert "once that tab has been opened" in control.message_w.value
+    app.tabs.selected_index = TABS.index("gas schemes")
+    control._folder = lambda: tmp_path / "open"
+    after = control.export()
+    names = {p.name for p in after}
+    stem = f"site-explorer-ridge-{app.receptor_w.value.replace('_', '-')}-2021-gas-schemes"
+    assert {f"{stem}-vd.html", f"{stem}-budget.html"} <= names
+    assert len(after) == len(before) + 2 and "Not written" not in control.message_w.value
+    vd = (tmp_path / "open" / f"{stem}-vd.html").read_text(encoding="utf-8")
+    assert "wesely1989" in vd and "zhang2003" in vd          # both schemes' bars
+    budget = (tmp_path / "open" / f"{stem}-budget.html").read_text(encoding="utf-8")
+    assert "dry NH3" in budget
+    # another unit with the tab closed: the tab's figures show the earlier state
+    app.tabs.selected_index = 0
+    app.unit_w.value = "eq/ha/yr"
+    control._folder = lambda: tmp_path / "stale"
+    stale = control.export()
+    assert not any("gas-schemes" in p.name for p in stale)
+    assert "earlier state" in control.message_w.value
+    app.tabs.selected_index = TABS.index("gas schemes")          # redrawn when opened
+    control._folder = lambda: tmp_path / "again"
+    assert sum("gas-schemes" in p.name for p in control.export()) == 2

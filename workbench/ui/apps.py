@@ -144,7 +144,8 @@ class SiteExplorer(SavedText, widgets.VBox):
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
         self.figure_export = FigureExport(      # named by what they show: no overwrite
             lambda: {f"{self.site} {self.receptor_w.value} {self._span()} {k}": f
-                     for k, f in self.figs.items()}, "site-explorer")
+                     for k, f in {**self.figs, **self.schemes.figures()}.items()},
+            "site-explorer", note=self.schemes.export_note)
         self.children = (*self.children, self.figure_export)
         self._wire()
 

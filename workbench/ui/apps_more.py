@@ -7,12 +7,14 @@ import ipywidgets as widgets
 import numpy as np
 import pandas as pd
 
+from ..ranking import EVERY_COMPONENT
 from . import figures
 from .assumptions import ASSUMPTIONS, Settings
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh, table_html, wrap_labels_style)
 from .session import Session
-from .summaries import UNITS, network_ranking, network_table
+from .summaries import (UNITS, network_ranking, network_span, network_table,
+                        total_heading)
 
 #: Default number of values of a swept number.
 SWEEP_STEPS = 6
@@ -176,7 +178,7 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         show = shown.pivot_table(index="value", columns="total", values="rate", sort=False)
         notes = shown.groupby("total", sort=False)["status"].agg(figures.status_note)
         # every number its unit, and a total that is not whole says so in its heading
-        show.columns = [f"{c} [{unit}]{notes.get(c, '')}" for c in show.columns]
+        show.columns = [f"{total_heading(c, unit)}{notes.get(c, '')}" for c in show.columns]
         show.columns.name = None
         self.table_w.value = table_html(show.reset_index().rename(
             columns={"value": a.label if "[" in a.label else f"{a.label} (setting)"}))
@@ -244,6 +246,7 @@ class NetworkOverview(SavedText, widgets.VBox):
             self.results[site] = session.run(self.settings, site, *self.years, "year")
         self.progress.done("network computed")
         self.figs = {}
+        self.rankings = {}                 # element -> the ranking drawn (workbench.ranking)
         self._draw(create=True)
         self.unit_w.observe(lambda c: self._draw(), "value")
         from .apps_analysis import network_analysis_table
@@ -302,20 +305,27 @@ class NetworkOverview(SavedText, widgets.VBox):
         t = self.table(unit)
         self.network = t
         new = {"totals": figures.network_totals(t, unit)}
+        # the report's ranking (workbench.ranking): whole-span totals, the full ones
+        # together, partial ones apart per missing set, the sites without a total last
+        span = network_span(self.results.values(), self.session.study.inputs.catalogue)
+        n_years = max(int(r.years.sizes.get("period", 0)) for r in self.results.values())
         apart_rows = []
         for el in ("S", "N"):
-            ranked, apart = network_ranking(t, el)
-            new[el] = figures.network_ranking_bars(ranked, apart, el, unit).update_layout(
+            r = network_ranking(span, el, unit, n_years, list(self.results))
+            self.rankings[el] = r
+            new[el] = figures.network_ranking_bars(r, el, unit).update_layout(
                 width=RANKING_WIDTH)
-            apart_rows.append(apart.assign(element=el))
-        apart = pd.concat(apart_rows, ignore_index=True)
+            apart_rows.append(r[r["group"] != EVERY_COMPONENT].assign(element=el))
+        apart = pd.concat(apart_rows, ignore_index=True)[
+            ["element", "group", "rank", "site", "value", "status", "years used"]]
         for k, f in new.items():
             if create:
                 self.figs[k] = figure_widget(f)
             else:
                 refresh(self.figs[k], f)
-        text = table_html(apart.rename(columns={"value": f"value [{unit}]"}),
-                          "every site has complete totals in every year")
+        text = table_html(apart.rename(columns={"value": f"whole span [{unit}]"}),
+                          "every site has a whole-span total holding every component")
         if create:
             self.apart_w = widgets.HTML()
-        self.apart_w.value = "<b>Not ranked (partial set of species or failing completeness)</b>" + text
+        self.apart_w.value = ("<b>Ranked apart (partial: without a component) or not ranked "
+                              "(no year passes completeness)</b>" + text)

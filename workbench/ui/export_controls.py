@@ -39,6 +39,9 @@ class FigureExport(widgets.HBox):
     folder : callable, optional
         Returns the folder to write into (default :func:`output_dir`, read at each
         click so that ``$WORKBENCH_OUTPUT`` set later is honoured).
+    note : callable, optional
+        Returns a sentence added to the message after each export (e.g. which figures
+        are not written and why); empty for none.
 
     Attributes
     ----------
@@ -47,8 +50,10 @@ class FigureExport(widgets.HBox):
     """
 
     def __init__(self, figures: Callable[[], dict], prefix: str,
-                 folder: Callable[[], Path] = output_dir):
+                 folder: Callable[[], Path] = output_dir,
+                 note: Callable[[], str] | None = None):
         self._figures, self.prefix, self._folder = figures, prefix, folder
+        self._note = note
         self.format_w = widgets.Dropdown(options=list(FORMATS), value="png",
                                          description="figures as",
                                          layout=widgets.Layout(width="180px"))
@@ -86,6 +91,9 @@ class FigureExport(widgets.HBox):
         text = (f"{len(written)} figure{'s' if len(written) != 1 else ''} written to "
                 f"{html.escape(str(folder))}: "
                 + ", ".join(html.escape(p.name) for p in written))
+        extra = self._note() if self._note is not None else ""
+        if extra:
+            text += f"<br><i>Not written: {html.escape(extra)}.</i>"
         if fallback:
             text += (f"<br><span style='color:#D55E00'>as HTML instead of {fmt.upper()}: "
                      f"{html.escape(fallback[0])}</span>")

@@ -405,39 +405,61 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
     return fig
 
 
-def network_ranking_bars(ranked: pd.DataFrame, apart: pd.DataFrame, element: str,
-                         unit="kg/ha/yr", template=TEMPLATE):
-    """Sites ranked by their mean annual total; the others listed apart, unranked.
+#: Bar colours of the ranking groups: every component first, then the partial groups.
+RANKING_COLOURS = (OKABE_ITO["blue"], OKABE_ITO["orange"], OKABE_ITO["reddish_purple"],
+                   OKABE_ITO["bluish_green"], OKABE_ITO["vermillion"], OKABE_ITO["sky_blue"])
+
+
+def network_ranking_bars(ranking: pd.DataFrame, element: str, unit="kg/ha/yr",
+                         template=TEMPLATE):
+    """Sites ranked by their whole-span total, in the groups of the report's ranking.
 
     Parameters
     ----------
-    ranked, apart : pandas.DataFrame
-        Outputs of :func:`workbench.ui.summaries.network_ranking`.
+    ranking : pandas.DataFrame
+        Output of :func:`workbench.ui.summaries.network_ranking` (``group, rank, site,
+        value`` [unit], ``status``, ``years used``).
 
     Returns
     -------
     plotly.graph_objects.Figure
-        One bar trace (ranked sites only); the unranked sites are named in a note.
+        One bar trace per ranked group (totals with every component; partial totals
+        "without NO2", ranked apart, with their own colour and ranks); the sites
+        without a total are named in a note, unranked.
     """
-    fig = go.Figure(go.Bar(
-        y=[f"{r} · {s}" for r, s in zip(ranked["rank"], ranked["site"])],
-        x=ranked["value"], orientation="h", marker=dict(color=OKABE_ITO["blue"]),
-        customdata=ranked["years"], name="complete totals",
-        hovertemplate="%{y}: %{x:.3g}<br>years %{customdata}<extra></extra>"))
-    note = "<br>".join(f"{s}: not ranked ({w})" for s, w in zip(apart["site"], apart["why"]))
-    if note:
-        fig.add_annotation(text="Partial or flagged totals, not ranked:<br>" + note,
+    from ..ranking import NO_TOTAL
+    ranked = ranking[ranking["group"] != NO_TOTAL]
+    fig = go.Figure()
+    labels = []
+    for k, (group, g) in enumerate(ranked.groupby("group", sort=False)):
+        tail = "" if k == 0 and not group.startswith("partial") else \
+            f" ({group.removeprefix('partial: ')})"
+        y = [f"{r} · {s}{tail}" for r, s in zip(g["rank"], g["site"])]
+        labels += y
+        fig.add_trace(go.Bar(
+            y=y, x=g["value"], orientation="h", name=group,
+            marker=dict(color=RANKING_COLOURS[k % len(RANKING_COLOURS)]),
+            customdata=np.stack([g["status"], g["years used"]], axis=-1),
+            hovertemplate="%{y}: %{x:.3g}<br>%{customdata[0]}, years %{customdata[1]}"
+                          "<extra></extra>"))
+    none = ranking.loc[ranking["group"] == NO_TOTAL, "site"]
+    if len(none):
+        fig.add_annotation(text="No total (no year passes completeness), not ranked:<br>"
+                                + ", ".join(none),
                            xref="paper", yref="paper", x=0, y=0, yshift=-60, showarrow=False,
                            align="left", xanchor="left", yanchor="top",
                            bgcolor=ENVELOPE_FILL)
     if not len(ranked):              # say so in the plot, not an empty pair of axes
-        fig.add_annotation(text=f"No site has a complete {element} total in every year:<br>"
+        fig.add_annotation(text=f"No site has a whole-span {element} total:<br>"
                                 "nothing to rank (the sites are named below)",
                            xref="paper", yref="paper", x=0.5, y=0.5, showarrow=False)
         fig.update_xaxes(visible=False)
         fig.update_yaxes(visible=False)
-    fig.update_layout(title=f"{element} total, mean of the years: complete totals ranked",
+    fig.update_layout(title=f"{element} total, whole span: ranked on equal footing<br>"
+                            "<sup>partial totals apart, per missing set</sup>",
                       xaxis_title=axis_text(unit, element=element), yaxis_title="rank · site",
-                      yaxis=dict(autorange="reversed"), template=template,
-                      height=HEIGHT, margin=dict(b=160))
+                      yaxis=dict(autorange="reversed", categoryorder="array",
+                                 categoryarray=labels),
+                      showlegend=False,        # each bar's label names its group
+                      template=template, height=HEIGHT, margin=dict(b=160))
     return fig

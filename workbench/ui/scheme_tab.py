@@ -80,6 +80,28 @@ class SchemeTab:
         a = self.app
         return (a.settings.key(), a.site, a.years, a.receptor_w.value, a.unit_w.value)
 
+    def current(self) -> bool:
+        """Whether the figures show the explorer's present state (drawn, and for the
+        site, receptor, years, unit and assumptions on screen)."""
+        return self._drawn is not None and self._drawn == self._key()
+
+    def figures(self) -> dict:
+        """``{"gas schemes Vd": ..., "gas schemes budget": ...}`` when :meth:`current`,
+        else empty: a tab never drawn, or drawn for another state, has nothing to write
+        (its figures would be named by a state they do not show)."""
+        if not self.current():
+            return {}
+        return {"gas schemes Vd": self.figs["vd"], "gas schemes budget": self.figs["budget"]}
+
+    def export_note(self) -> str:
+        """Why the tab's figures are not in an export (empty when they are)."""
+        if self._drawn is None:
+            return "the gas-schemes figures are written once that tab has been opened"
+        if not self.current():
+            return ("the gas-schemes figures show an earlier state: open that tab to "
+                    "redraw them, then export")
+        return ""
+
     def _sized(self, spec):
         return {**spec, "layout": {**spec.get("layout", {}), "width": self.width}}
 

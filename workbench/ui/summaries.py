@@ -31,6 +31,20 @@ CM_PER_M = 100.0
 HALF_HOUR = np.timedelta64(30, "m")
 
 
+#: A total's name (``S_wet``...) in words, as the headings of the tables say it.
+PATHWAY_WORDS = {"wet": "wet deposition", "dry": "dry deposition", "total": "total"}
+
+
+def total_heading(name: str, unit: str) -> str:
+    """Heading of a total in a table, in words with its unit.
+
+    >>> total_heading("S_wet", "mmol/m2/yr"), total_heading("N_total", "kg/ha/yr")
+    ('S wet deposition [mmol/m2/yr]', 'N total [kg/ha/yr]')
+    """
+    el, _, pw = str(name).partition("_")
+    return f"{el} {PATHWAY_WORDS.get(pw, pw)} [{unit}]" if pw else f"{name} [{unit}]"
+
+
 def axis_text(unit: str, monthly: bool = False, element: str | None = None) -> str:
     """Axis title of a unit, e.g. ``kg S / N ha-1 yr-1`` [text]."""
     text = UNITS[unit][2 if monthly else 1]
@@ -508,53 +522,60 @@ def network_table(year_ds: xr.Dataset, catalogue=None, unit="kg/ha/yr") -> pd.Da
     return t[["site", "receptor", "period", "element", "value", "status", "missing", "rankable"]]
 
 
-def _year_span(periods) -> str:
-    """Periods as text, runs of consecutive years joined: ``2016-2019, 2021``."""
-    try:
-        years = sorted(int(str(p)) for p in periods)
-    except ValueError:                       # months or seasons: listed as they are
-        return ", ".join(map(str, periods))
-    runs, start = [], years[0]
-    for a, b in zip(years, years[1:] + [None]):
-        if b != a + 1:
-            runs.append(f"{start}" if start == a else f"{start}-{a}")
-            start = b
-    return ", ".join(runs)
+def network_span(results, catalogue=None) -> pd.DataFrame:
+    """Whole-span totals of every site on its own surface: the span rows of budget.csv.
 
-
-def why_text(pairs) -> str:
-    """``"2016-2023: partial (no NO2)"`` from (period, reason) pairs: the periods of one
-    reason together (in order of first appearance), so that a long record stays a line."""
-    by = {}
-    for period, reason in pairs:
-        by.setdefault(reason, []).append(period)
-    return "; ".join(f"{_year_span(ps)}: {reason}" for reason, ps in by.items())
-
-
-def network_ranking(table: pd.DataFrame, element: str) -> tuple[pd.DataFrame, pd.DataFrame]:
-    """Sites ranked by their mean annual total, complete totals only.
-
-    A site enters the ranking when every one of its years is rankable (complete or
-    filled); the others are listed apart, never ranked beside complete ones.
+    Parameters
+    ----------
+    results : iterable of Result
+        The runs (one per site, or one of them all).
+    catalogue : SiteCatalogue, optional
+        Gives each site's own land use; default its first receptor.
 
     Returns
     -------
-    ranked : pandas.DataFrame
-        ``rank, site, receptor, value`` [unit], ``years``, highest first.
-    apart : pandas.DataFrame
-        ``site, receptor, value, years, why`` (statuses and missing species).
+    pandas.DataFrame
+        The span rows of the S and N totals (``flux_kg_ha_yr`` [kg/ha/yr], ``status``,
+        ``missing_components``, ``years_used``...), one receptor per site.
     """
-    t = table[table["element"] == element]
-    g = t.groupby(["site", "receptor"], sort=False)
-    summ = g.agg(value=("value", "mean"), years=("period", lambda p: " ".join(map(str, p))),
-                 ok=("rankable", "all")).reset_index()
-    why = g.apply(lambda d: why_text(
-        [(p, f"{s}" + (f" (no {m})" if m else ""))
-         for p, s, m, r in zip(d["period"], d["status"], d["missing"], d["rankable"]) if not r]),
-        include_groups=False).rename("why").reset_index()
-    summ = summ.merge(why, on=["site", "receptor"])
-    ranked = summ[summ["ok"]].sort_values("value", ascending=False).reset_index(drop=True)
-    ranked.insert(0, "rank", np.arange(1, len(ranked) + 1))
-    apart = summ[~summ["ok"]].reset_index(drop=True)
-    return ranked[["rank", "site", "receptor", "value", "years"]], \
-        apart[["site", "receptor", "value", "years", "why"]]
+    from ..ranking import own_surface_rows
+    t = pd.concat([r.table for r in results], ignore_index=True)
+    span = t[(t["period"] == "span") & (t["species"] == "all") & (t["pathway"] == "total")]
+    if span.empty:
+        return span
+    if catalogue is None:
+        first = span.groupby("site", sort=False)["receptor"].transform("first")
+        return span[span["receptor"] == first]
+    return own_surface_rows(span, catalogue)
+
+
+def network_ranking(span: pd.DataFrame, element: str, unit="kg/ha/yr", n_periods=None,
+                    sites=None) -> pd.DataFrame:
+    """Sites ranked by their whole-span total: the report's rule
+    (:func:`workbench.ranking.ranking`), in the unit shown.
+
+    Totals holding every component (complete, filled or flagged) are ranked together,
+    partial ones apart per set of missing components, sites without a total last.
+
+    Parameters
+    ----------
+    span : pandas.DataFrame
+        :func:`network_span` rows.
+    unit : str
+        A key of :data:`UNITS`.
+    n_periods : int, optional
+        Years of the run (to say "1 of 2").
+    sites : list of str, optional
+        Every site shown (those without a span row are listed unranked).
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``group, rank, site, value`` [unit], ``status``, ``years used``.
+    """
+    from ..ranking import ranking
+    # kg/ha/yr of the element -> unit: the ratio of the two for one mol m-2
+    factor = {el: to_unit(1.0, el, unit) / to_unit(1.0, el, "kg/ha/yr") for el in ("S", "N")}
+    v = span.assign(_value=span["flux_kg_ha_yr"].astype(float)
+                    * span["element"].map(factor).astype(float))
+    return ranking(v, element, n_periods, sites, value="_value")
