@@ -79,6 +79,27 @@ def test_gaps_lower_the_coverage_and_reach_the_report(run):
     assert re.search(r"air v03-\w+: 10 weeks without samples", text)
     assert re.search(r"precipitation v02-\w+: 14 weeks without samples", text)
     assert "met v04: 840 missing hours" in text
+    # the report's coverage table lists the three gapped site-years, not the full one
+    sec = text[text.index("<h2>Sampling coverage</h2>"):]
+    sec = sec[:sec.index("<h2>", 5)]
+    cells = [re.sub(r"<[^>]+>", "", r).split("\n") for r in re.findall(r"<tr>(.*?)</tr>", sec,
+                                                                       flags=re.S)]
+    rows = [r for r in ([c.strip() for c in r if c.strip()] for r in cells)
+            if r and r[0].startswith("v")]
+    assert [r[:2] for r in rows] == [["v02", "2017"], ["v03", "2017"], ["v04", "2017"]], rows
+    assert rows[0][2] == "71%"        # 39 of 52 weeks' hours: 0.712 (wet_coverage_fraction)
+    assert rows[1][3] == "81%"        # 1 - 1680/8760
+    assert rows[2][4] == "90%"        # 1 - 842/8760
+
+
+def test_coverage_table_rule():
+    from workbench.report_coverage import coverage_gaps
+    t = pd.DataFrame({"site": ["a", "a", "b", "b", "a"],
+                      "period": ["2017", "2017", "2017", "2017", "span"],
+                      "air_coverage": [0.96, 0.94, 0.99, float("nan"), 0.1],
+                      "vd_coverage": [1.0, 1.0, 0.951, 1.0, 0.1]})
+    g = coverage_gaps(t)
+    assert g["site"].tolist() == ["a"] and g["air_coverage"].tolist() == [0.94]
 
 
 def _ds(starts, days, site="s1", sampler="s1-F1"):
