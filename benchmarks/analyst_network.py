@@ -94,7 +94,7 @@ def _scale(cell: str, factor: float, decimals: int) -> str:
 class _Plan:
     """Per generated site: template, id, factors and the imperfection windows."""
 
-    def __init__(self, n_sites, years, templates):
+    def __init__(self, n_sites, years, templates, imperfections=None):
         rng = np.random.default_rng(SEED)
         self.hi = f"{FIRST_YEAR + years}-01-01"
         self.ids = [f"v{i + 1:02d}" for i in range(n_sites)]
@@ -103,7 +103,8 @@ class _Plan:
         self.wet = rng.uniform(0.8, 1.2, n_sites)
         self.jitter = rng.uniform(-0.15, 0.15, (n_sites, 2))
         self.cl = rng.uniform(0.8, 1.25, n_sites)
-        self.which = {k: i for k, i in IMPERFECTIONS.items() if i < n_sites}
+        chosen = IMPERFECTIONS if imperfections is None else imperfections
+        self.which = {k: i for k, i in chosen.items() if i < n_sites}
         mid = FIRST_YEAR + years // 2
         #: rows of site i with start in [lo, hi) are dropped, per file kind
         self.drop = {k: {} for k in ("precipitation", "air", "met")}
@@ -157,7 +158,7 @@ def _copy_rows(lines, plan, kind, edit):
     return "".join(out)
 
 
-def make_analyst_network(out_dir, n_sites=30, years=10) -> Path:
+def make_analyst_network(out_dir, n_sites=30, years=10, imperfections=None) -> Path:
     """Write the invented network of `n_sites` sites over `years` years into `out_dir`.
 
     Parameters
@@ -168,6 +169,9 @@ def make_analyst_network(out_dir, n_sites=30, years=10) -> Path:
         Number of invented sites (ids ``v01``, ``v02``...).
     years : int
         Years of record from 2016.
+    imperfections : dict, optional
+        Imperfection -> index of the site that has it (default :data:`IMPERFECTIONS`);
+        a small network for a test can put the gaps on its first sites.
 
     Returns
     -------
@@ -179,7 +183,7 @@ def make_analyst_network(out_dir, n_sites=30, years=10) -> Path:
     out.mkdir(parents=True, exist_ok=True)
     base = base_folder(out, years)
     templates = _toml_load(base / "sites.toml")["site"]
-    plan = _Plan(n_sites, years, templates)
+    plan = _Plan(n_sites, years, templates, imperfections)
     names = _names(n_sites, templates)
     sites = []
     for i, sid in enumerate(plan.ids):
@@ -247,10 +251,11 @@ def make_analyst_network(out_dir, n_sites=30, years=10) -> Path:
     return out / "scenario.toml"
 
 
-def describe(n_sites=30, years=10) -> str:
+def describe(n_sites=30, years=10, imperfections=None) -> str:
     """Which site has which imperfection, as text."""
     ids = [f"v{i + 1:02d}" for i in range(n_sites)]
-    return "; ".join(f"{k}: {ids[i]}" for k, i in IMPERFECTIONS.items() if i < n_sites)
+    chosen = IMPERFECTIONS if imperfections is None else imperfections
+    return "; ".join(f"{k}: {ids[i]}" for k, i in chosen.items() if i < n_sites)
 
 
 def main(argv=None):

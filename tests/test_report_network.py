@@ -159,8 +159,13 @@ def test_check_groups_the_notes_of_a_network(network, capsys):
     assert main(["check", str(scenario), "--quiet"]) == 0
     text = capsys.readouterr().out
     notes = text[text.index("\nnotes:\n") + 1:].split("\n\n")[0].splitlines()[1:]
-    assert len(notes) == 2, notes               # 9 full records in one line, v06 apart
+    assert len(notes) == 4, notes               # 9 full records in one line, v06 apart
     assert "the same at 8 more sites" in notes[0] and notes[1].startswith("  met v06")
+    # the late start of v06 said per file, in weeks (52 weeks after 2016-01-07, the
+    # first precipitation sample of the file; the air file starts a week earlier)
+    assert notes[2] == ("  precipitation v06: the record starts 2017-01-05T13:00 UTC "
+                            "(52 weeks after the file's first sample)")
+    assert notes[3].startswith("  air v06: the record starts 2017-01-05T14:00 UTC")
 
 
 def test_check_names_the_sites_a_data_file_does_not_hold(tmp_path, capsys):

@@ -541,15 +541,18 @@ def wants_blocks(n_sites, workers=None, scheduler=None, block_sites=None, draws=
 
 def run_network(study, wet_options, dry_options, budget_options, fixed_velocity, resolution,
                 start, end, *, sc=None, workers=None, scheduler=None, block_sites=None,
-                progress=None, cluster=None) -> Result:
+                progress=None, cluster=None, max_block_sites=None) -> Result:
     """What ``workbench run --workers/--scheduler/--block-sites`` computes.
 
     Starts (and closes) a local cluster of `workers` processes, or connects to
     `scheduler`; without either the blocks run in this process.  A local cluster
     already starting (`cluster`, a :class:`ClusterStart`) is used and closed instead.
     The default block size with a cluster is the sites shared out as two blocks per
-    worker, at most :data:`DEFAULT_MAX_BLOCK` sites; in this process
-    :data:`DEFAULT_MAX_BLOCK`.
+    worker, at most `max_block_sites`; in this process `max_block_sites`.
+    `max_block_sites` defaults to :data:`DEFAULT_MAX_BLOCK`; ``workbench run`` passes
+    :func:`workbench.cli.default_block_sites` of the record length, so that a worker's
+    block holds no more site-years than a block in this process (the peak memory of a
+    block grows with its site-years, docs/performance.md).
     """
     from .errors import WorkbenchError
     try:
@@ -562,12 +565,13 @@ def run_network(study, wet_options, dry_options, budget_options, fixed_velocity,
         else:
             client = start_client(workers, scheduler) if (workers or scheduler) else None
             cluster = client
+        limit = DEFAULT_MAX_BLOCK if max_block_sites is None else max(1, int(max_block_sites))
         if block_sites is None and client is not None:
             n_workers = max(1, len(client.scheduler_info().get("workers", {})) or (workers or 1))
             n_sites = len(study.inputs.catalogue.ids)
-            block_sites = min(DEFAULT_MAX_BLOCK, max(1, -(-n_sites // (2 * n_workers))))
+            block_sites = min(limit, max(1, -(-n_sites // (2 * n_workers))))
         elif block_sites is None:
-            block_sites = DEFAULT_MAX_BLOCK
+            block_sites = limit
         result = run_blocks(study, wet_options, dry_options, budget_options, fixed_velocity,
                             resolution, start, end, block_sites=block_sites, client=client,
                             progress=progress)

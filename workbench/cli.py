@@ -188,16 +188,17 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
             if wants_blocks(len(study.inputs.catalogue.ids), workers, scheduler, block_sites,
                             getattr(unc, "draws", 0) if unc is not None else 0):
                 from .blocks import run_network
-                if block_sites is None and not workers and not scheduler:
-                    block_sites = default_block_sites(len(prep.years))
+                # the same site-years rule for the blocks of this process and of workers
+                cap = default_block_sites(len(prep.years))
                 result = run_network(*args, sc=sc, workers=workers, scheduler=scheduler,
                                      block_sites=block_sites, progress=bar.set_postfix_str,
-                                     cluster=cluster)
+                                     cluster=cluster, max_block_sites=cap)
             else:
                 from .comparison import run as run_compared
                 result = run_compared(*args)
             step("writing")
-            written = write_run(result, study, sc, out, progress=bar.set_postfix_str,
+            written = write_run(result, study, sc, out,
+                                progress=output_progress(result, bar.set_postfix_str),
                                 folder=folder)
             bar.update(bar.total - bar.n)
         finally:
@@ -206,6 +207,15 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
             if cluster is not None:
                 cluster.close()
     return written, result, study
+
+
+def output_progress(result, say):
+    """`say` for the writer's steps, except that a run without hourly velocities (in
+    blocks) says ``velocities.nc not written (blocks)`` for the step that writes none."""
+    if getattr(result, "velocities", None) is not None:
+        return say
+    return lambda text: say("velocities.nc not written (blocks)" if text == "velocities.nc"
+                            else text)
 
 
 def default_block_sites(n_years) -> int:

@@ -339,6 +339,8 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
             first = False
     trend_parts, first = _trend_html(result, study, first, max_site_figures, network)
     parts.extend(trend_parts)
+    from .report_coverage import coverage_section    # gaps within the thresholds, too
+    parts.extend(coverage_section(t, _table_html))
     parts.append("<h2>Precipitation-chemistry QA</h2>")
     if result.screened is not None:
         st = pd.Series(result.screened["status"].values).value_counts().rename_axis("status") \

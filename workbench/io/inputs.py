@@ -190,6 +190,9 @@ def load_inputs(sites, precipitation=None, air=None, met=None, reference_state=N
         inp.met, led = read_met(met, cat)
         inp.ledger = inp.ledger + led
         inp.paths["met"] = Path(met)
+    from .samplegaps import sampling_gap_notes      # weeks without samples, per sampler
+    inp.ledger.notes.extend(sampling_gap_notes(inp.precipitation, "precipitation")
+                            + sampling_gap_notes(inp.air, "air"))
     if inp.met is not None and inp.precipitation is not None:
         gc = _gauge_check(inp.met, inp.precipitation)
         inp.gauge_check = gc

@@ -1,0 +1,122 @@
+"""Gaps of a network's samplers reach the user: a collector out of service for 14 weeks,
+a filter pack for 10 weeks, a met mast for 5 weeks (benchmarks/analyst_network.py, 4
+sites x 2 years with the gaps on v02, v03, v04 in 2017).
+
+Nothing is flagged or rejected (the rows are absent), so before these notes the air gap
+showed only as an ``air_coverage`` of 0.81 in budget.csv and quality.csv, with status
+``complete`` (above ``min_air_coverage`` = 0.75, docs/budget.md), and neither
+``workbench check`` nor report.html said it.  The expected fractions are worked by hand:
+10 weeks = 1,680 h of 8,760 h in 2017."""
+import html
+import importlib.util
+import re
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+import xarray as xr
+
+from workbench.cli import main, run_scenario
+from workbench.io.samplegaps import interval_gaps, sampling_gap_notes
+
+ROOT = Path(__file__).resolve().parents[1]
+GAPS = {"precip_gap": 1, "air_gap": 2, "met_gap": 3}
+
+
+def _generator():
+    spec = importlib.util.spec_from_file_location(
+        "bench_analyst_network_gaps", ROOT / "benchmarks" / "analyst_network.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+@pytest.fixture(scope="module")
+def scenario(tmp_path_factory):
+    tmp = tmp_path_factory.mktemp("gaps")
+    return _generator().make_analyst_network(tmp / "in", n_sites=4, years=2,
+                                             imperfections=GAPS)
+
+
+@pytest.fixture(scope="module")
+def run(scenario, tmp_path_factory):
+    out = tmp_path_factory.mktemp("gaps_out") / "out"
+    written, result, study = run_scenario(scenario, out, quiet=True)
+    return result, out
+
+
+def test_check_names_the_weeks_without_samples(scenario, capsys):
+    assert main(["check", str(scenario)]) == 0
+    out = capsys.readouterr().out
+    notes = out.split("\nnotes:\n", 1)[1]
+    assert re.search(r"precipitation v02-\w+: 14 weeks without samples \(1 gap; longest 14 "
+                     r"weeks from 2017-03-", notes), notes
+    assert re.search(r"air v03-\w+: 10 weeks without samples \(1 gap; longest 10 weeks "
+                     r"from 2017-0[78]-", notes), notes
+    assert "met v04: 840 missing hours in 1 gaps" in notes      # 35 days x 24 h
+    assert not re.search(r"(air|precipitation) v01\b", notes)   # no gap, no note
+
+
+def test_gaps_lower_the_coverage_and_reach_the_report(run):
+    result, out = run
+    t = result.table
+    dry = t[(t["pathway"] == "dry") & (t["species"] == "SO2") & (t["period"] == "2017")]
+    row = dry[dry["site"] == "v03"].iloc[0]
+    # 1 - 1680/8760 = 0.8082: counted, and above min_air_coverage 0.75 -> complete
+    assert row["air_coverage"] == pytest.approx(1 - 1680 / 8760, abs=2e-4)
+    assert row["status"] == "complete"
+    met = dry[dry["site"] == "v04"].iloc[0]
+    # 840 h filled of 8,760 (plus the record's last hour, absent at every site):
+    # 9.6 % filled, not more than 10 % (min_vd_coverage 0.9) -> still complete
+    ref = dry[dry["site"] == "v01"].iloc[0]["vd_coverage"]
+    assert ref - met["vd_coverage"] == pytest.approx(840 / 8760, abs=2e-4)
+    assert met["status"] == "complete"
+    q = pd.read_csv(out / "quality.csv")
+    q = q[(q["site"] == "v03") & (q["period"].astype(str) == "2017")]
+    assert q["air_coverage_SO2"].iloc[0] == pytest.approx(1 - 1680 / 8760, abs=2e-4)
+    text = html.unescape((out / "report.html").read_text(encoding="utf-8"))
+    assert re.search(r"air v03-\w+: 10 weeks without samples", text)
+    assert re.search(r"precipitation v02-\w+: 14 weeks without samples", text)
+    assert "met v04: 840 missing hours" in text
+    # the report's coverage table lists the three gapped site-years, not the full one
+    sec = text[text.index("<h2>Sampling coverage</h2>"):]
+    sec = sec[:sec.index("<h2>", 5)]
+    cells = [re.sub(r"<[^>]+>", "", r).split("\n") for r in re.findall(r"<tr>(.*?)</tr>", sec,
+                                                                       flags=re.S)]
+    rows = [r for r in ([c.strip() for c in r if c.strip()] for r in cells)
+            if r and r[0].startswith("v")]
+    assert [r[:2] for r in rows] == [["v02", "2017"], ["v03", "2017"], ["v04", "2017"]], rows
+    assert rows[0][2] == "71%"        # 39 of 52 weeks' hours: 0.712 (wet_coverage_fraction)
+    assert rows[1][3] == "81%"        # 1 - 1680/8760
+    assert rows[2][4] == "90%"        # 1 - 842/8760
+
+
+def test_coverage_table_rule():
+    from workbench.report_coverage import coverage_gaps
+    t = pd.DataFrame({"site": ["a", "a", "b", "b", "a"],
+                      "period": ["2017", "2017", "2017", "2017", "span"],
+                      "air_coverage": [0.96, 0.94, 0.99, float("nan"), 0.1],
+                      "vd_coverage": [1.0, 1.0, 0.951, 1.0, 0.1]})
+    g = coverage_gaps(t)
+    assert g["site"].tolist() == ["a"] and g["air_coverage"].tolist() == [0.94]
+
+
+def _ds(starts, days, site="s1", sampler="s1-F1"):
+    s = np.array(starts, dtype="datetime64[ns]")
+    e = s + np.array([np.timedelta64(int(d * 86400), "s") for d in days])
+    n = len(s)
+    return xr.Dataset({"site": ("period", [site] * n), "start": ("period", s),
+                       "end": ("period", e), "sampler_id": ("period", [sampler] * n)})
+
+
+def test_gap_rule_on_hand_made_records():
+    weekly = [f"2020-01-{d:02d}" for d in (1, 8, 15, 29)]          # the week of the 22nd lost
+    notes = sampling_gap_notes(_ds(weekly, [7] * 4), "air")
+    assert notes == ["air s1-F1: 1 week without samples (1 gap; longest 1 week from "
+                     "2020-01-22 to 2020-01-29 UTC)"]
+    # changeovers of an hour are no gap; overlapping samples are merged
+    s = np.array(["2020-01-01", "2020-01-08T01", "2020-01-10"], dtype="datetime64[ns]")
+    e = np.array(["2020-01-08", "2020-01-15", "2020-01-12"], dtype="datetime64[ns]")
+    assert interval_gaps(s, e, np.timedelta64(1, "D")) == []
+    assert sampling_gap_notes(_ds(s.astype(str), [7, 7, 2]), "air") == []

@@ -1,0 +1,108 @@
+"""Notes on the weeks a sampler has no sample: gaps inside its record, and a site whose
+record starts after, or ends before, the file's.
+
+A collector or filter pack out of service leaves no row, so nothing is flagged or
+rejected; the budget counts the hours in its coverage (``wet_coverage_fraction``,
+``air_coverage``) and a gap of a few weeks in a year may stay within the completeness
+thresholds (docs/budget.md).  These notes name each gap where a user reads first: the
+``notes:`` of ``workbench check`` and the input notes of report.html.
+"""
+from __future__ import annotations
+
+import numpy as np
+
+#: A gap shorter than this is a changeover, not a missing sample [d].
+MIN_GAP_DAYS = 1.0
+#: Days by which a site's record may start after / end before the file's unsaid [d]
+#: (the value of :data:`workbench.preflight.COVERAGE_SLACK_DAYS`).
+EDGE_SLACK_DAYS = 31
+
+
+def _day(t) -> str:
+    return str(np.datetime64(t, "m"))[:16].replace("T00:00", "")
+
+
+def _weeks(seconds: float) -> str:
+    w = round(seconds / (7 * 86400.0), 1)
+    return f"{w:g} week{'' if w == 1 else 's'}"
+
+
+def interval_gaps(start, end, min_gap):
+    """The gaps between sampling intervals [start, end) (overlaps merged).
+
+    Parameters
+    ----------
+    start, end : array of datetime64
+        Interval bounds (any order).
+    min_gap : numpy.timedelta64
+        Shortest gap returned [time].
+
+    Returns
+    -------
+    list of (datetime64, datetime64)
+        Each gap's first and last instant [UTC], in time order.
+    """
+    order = np.argsort(start, kind="stable")
+    s, e = np.asarray(start)[order], np.asarray(end)[order]
+    reach = np.maximum.accumulate(e)          # latest end so far (merges overlaps)
+    gap = s[1:] - reach[:-1]
+    k = np.flatnonzero(gap >= min_gap)
+    return [(reach[:-1][i], s[1:][i]) for i in k]
+
+
+def sampling_gap_notes(ds, role: str) -> list[str]:
+    """Lines on the gaps of each sampler's record and on sites that start late or end
+    early.
+
+    A gap is a stretch of at least the sampler's median sample length (and at least
+    :data:`MIN_GAP_DAYS`) without any sample of that sampler: with weekly samples, one
+    missing week is a gap.  A site whose first sample starts more than
+    :data:`EDGE_SLACK_DAYS` after the file's first (or whose last ends that much before
+    the file's last) is said too.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        Precipitation samples (dim ``sample``) or air periods (dim ``period``) with
+        ``site``, ``start``, ``end`` and optionally ``sampler_id``.
+    role : str
+        ``"precipitation"`` or ``"air"``: the word the lines open with.
+
+    Returns
+    -------
+    list of str
+        E.g. ``air v18-F1: 10 weeks without samples (1 gap; longest 10 weeks from
+        2017-08-03 14:00 UTC)``.
+    """
+    if ds is None or not ds.sizes.get(next(iter(ds["site"].dims), ""), 0):
+        return []
+    site = ds["site"].values.astype(str)
+    start, end = ds["start"].values, ds["end"].values
+    sampler = (ds["sampler_id"].values.astype(str) if "sampler_id" in ds
+               else np.full(site.shape, ""))
+    key = np.where(sampler == "", site, sampler)
+    lo, hi = start.min(), end.max()
+    slack = np.timedelta64(EDGE_SLACK_DAYS, "D")
+    out = []
+    for s_id in dict.fromkeys(site):
+        at = site == s_id
+        a, b = start[at].min(), end[at].max()
+        late = [f"starts {_day(a)} UTC ({_weeks((a - lo) / np.timedelta64(1, 's'))} after "
+                f"the file's first sample)"] if a - lo > slack else []
+        late += [f"ends {_day(b)} UTC ({_weeks((hi - b) / np.timedelta64(1, 's'))} before "
+                 f"the file's last)"] if hi - b > slack else []
+        if late:
+            out.append(f"{role} {s_id}: the record " + " and ".join(late))
+        for k in dict.fromkeys(key[at]):
+            m = key == k
+            length = np.median(end[m] - start[m])
+            gaps = interval_gaps(start[m], end[m],
+                                 max(length, np.timedelta64(int(MIN_GAP_DAYS * 86400), "s")))
+            if not gaps:
+                continue
+            secs = np.array([(g1 - g0) / np.timedelta64(1, "s") for g0, g1 in gaps])
+            j = int(np.argmax(secs))
+            out.append(f"{role} {k}: {_weeks(secs.sum())} without samples ({len(gaps)} gap"
+                       f"{'' if len(gaps) == 1 else 's'}; longest {_weeks(secs[j])} from "
+                       f"{_day(gaps[j][0])} to {_day(gaps[j][1])} UTC)")
+    return out
