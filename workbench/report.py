@@ -46,16 +46,27 @@ def _figures_limited(n_sites, shown, what) -> str:
             f"budget.csv and trends.csv of the run folder.</p>")
 
 
+#: Below this magnitude a table value is rounding residue, shown as 0: far below any
+#: meaningful amount in the report's units (kg/ha, eq/ha, mmol/m2; the smallest exact
+#: Mann-Kendall p of 10 values is about 5.5e-7).
+ROUNDING_FLOOR = 1e-12
+
+
 def plain(v, digits=DIGITS) -> str:
     """A number in plain notation with about `digits` significant digits: no exponent,
     thousands separated by commas (1,713; 24.6; 0.0123).
 
+    A magnitude below :data:`ROUNDING_FLOOR` is the residue of a sum that cancels (a
+    bracket of 0 written -4.86e-16 kg/ha) and is shown as 0.
+
     >>> plain(1713.4), plain(24.56), plain(0.012345), plain(0.0), plain(float("nan"))
     ('1,713', '24.6', '0.0123', '0', '–')
+    >>> plain(-4.86e-16), plain(3e-7)
+    ('0', '0.000000300')
     """
     if v is None or not np.isfinite(v):
         return "–"
-    if v == 0:
+    if abs(v) < ROUNDING_FLOOR:
         return "0"
     decimals = max(0, digits - 1 - int(np.floor(np.log10(abs(v)))))
     text = f"{v:,.{decimals}f}"
