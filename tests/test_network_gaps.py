@@ -8,9 +8,7 @@ showed only as an ``air_coverage`` of 0.81 in budget.csv and quality.csv, with s
 ``workbench check`` nor report.html said it.  The expected fractions are worked by hand:
 10 weeks = 1,680 h of 8,760 h in 2017."""
 import html
-import importlib.util
 import re
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -19,23 +17,15 @@ import xarray as xr
 
 from workbench.cli import main, run_scenario
 from workbench.io.samplegaps import interval_gaps, sampling_gap_notes
+from tiny_inputs import make_analyst_network
 
-ROOT = Path(__file__).resolve().parents[1]
 GAPS = {"precip_gap": 1, "air_gap": 2, "met_gap": 3}
-
-
-def _generator():
-    spec = importlib.util.spec_from_file_location(
-        "bench_analyst_network_gaps", ROOT / "benchmarks" / "analyst_network.py")
-    module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)
-    return module
 
 
 @pytest.fixture(scope="module")
 def scenario(tmp_path_factory):
     tmp = tmp_path_factory.mktemp("gaps")
-    return _generator().make_analyst_network(tmp / "in", n_sites=4, years=2,
+    return make_analyst_network(tmp / "in", n_sites=4, years=2,
                                              imperfections=GAPS)
 
 

@@ -7,9 +7,7 @@ The network is the invented one of benchmarks/analyst_network.py, 10 sites x 2 y
 these sections, a 30-site report ran to 55 screens, with no ranking, 1,500 rows of the
 dry-N bracket, and the same note 22 times ("NO2: not measured at the site")."""
 import html
-import importlib.util
 import re
-from pathlib import Path
 
 import pandas as pd
 import pytest
@@ -18,22 +16,14 @@ from workbench.cli import main, run_scenario, site_status_lines
 from workbench.report import render_report
 from workbench.report_network import (grouped_free_notes, grouped_notes, ranking,
                                       year_span)
+from tiny_inputs import make_analyst_network
 
-ROOT = Path(__file__).resolve().parents[1]
-
-
-def _generator():
-    spec = importlib.util.spec_from_file_location(
-        "bench_analyst_network", ROOT / "benchmarks" / "analyst_network.py")
-    module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)
-    return module
 
 
 @pytest.fixture(scope="module")
 def network(tmp_path_factory):
     tmp = tmp_path_factory.mktemp("net")
-    scenario = _generator().make_analyst_network(tmp / "in", n_sites=10, years=2)
+    scenario = make_analyst_network(tmp / "in", n_sites=10, years=2)
     written, result, study = run_scenario(scenario, tmp / "out", quiet=True)
     text = html.unescape((tmp / "out" / "report.html").read_text(encoding="utf-8"))
     return scenario, result, study, text, tmp / "out"

@@ -130,3 +130,15 @@ def plausible_met_csv(tmp_path, n_days=3, site="alpha", offset=1, **cols):
 def ledger_reasons(led):
     """The set of single reasons in a ledger's table."""
     return set(led.table["reason"].str.split("; ").explode()) - {""}
+
+
+def make_analyst_network(out_dir, **kw):
+    """The invented network of benchmarks/analyst_network.py written into `out_dir`
+    (keywords: n_sites, years, imperfections); returns the scenario path."""
+    import importlib.util
+    from pathlib import Path
+    path = Path(__file__).resolve().parents[1] / "benchmarks" / "analyst_network.py"
+    spec = importlib.util.spec_from_file_location("bench_analyst_network", path)
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module.make_analyst_network(out_dir, **kw)

@@ -8,26 +8,19 @@ from the notebook's ranking.  The network is the invented one of
 benchmarks/analyst_network.py (10 sites x 2 years, one starting a year late, one without
 NH3), as in tests/test_report_network.py."""
 import html
-import importlib.util
 import re
 import warnings
-from pathlib import Path
 
 import pytest
 
 from workbench.cli import run_scenario
-
-ROOT = Path(__file__).resolve().parents[2]
+from tiny_inputs import make_analyst_network
 
 
 @pytest.fixture(scope="module")
 def both(tmp_path_factory):
-    spec = importlib.util.spec_from_file_location(
-        "bench_analyst_network", ROOT / "benchmarks" / "analyst_network.py")
-    gen = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(gen)
     tmp = tmp_path_factory.mktemp("net_rank")
-    scenario = gen.make_analyst_network(tmp / "in", n_sites=10, years=2)
+    scenario = make_analyst_network(tmp / "in", n_sites=10, years=2)
     run_scenario(scenario, tmp / "out", quiet=True)
     text = html.unescape((tmp / "out" / "report.html").read_text(encoding="utf-8"))
     from workbench.ui.apps_more import NetworkOverview
