@@ -16,9 +16,13 @@ Sources
   figures (Prohaska et al. 2022, Pure Appl. Chem. 94, 573), conventional values for
   elements given as intervals (H 1.008, C 12.011, N 14.007, O 15.999, Mg 24.305,
   S 32.06, Cl 35.45).
-* Effective Henry constants H* [M atm-1], reactivity factors f0 [-] and the
-  diffusivity ratios D_H2O/D_x: Wesely (1989), Atmos. Environ. 23, 1293-1304,
-  Table 2 (values recalled from memory; checked for internal consistency only).
+* Effective Henry constants H* [M atm-1] and reactivity factors f0 [-]: Wesely
+  (1989), Atmos. Environ. 23, 1293-1304, Table 2 (values recalled from memory;
+  checked for internal consistency only). The diffusivity ratios D_H2O/D_x that
+  scale the stomatal resistance are computed from the measured diffusivities below
+  (SO2 2.00, O3 1.51, NO2 1.60, HNO3 2.16, NH3 1.10), not taken from Wesely's
+  Table 2 (1.9, 1.6, 1.6, 1.9, 0.97, close to sqrt(M/M_H2O)); docs/methods_dry.md
+  9.2 gives the difference this makes (a few thousandths of a cm/s).
 * Molecular diffusivities in air at 273.15 K and 101.325 kPa: Massman (1998),
   Atmos. Environ. 32, 1111-1127, Table 2 (SO2, NH3, NO2, O3, H2O; recalled from
   memory). Massman gives no HNO3 value: for HNO3 we use the measured value of
@@ -148,7 +152,7 @@ _TABLE = [
     Species("PO4", "PO4", "ion", "phosphate", charge=-3, eq_per_mol=3),
     Species("HCO3", "HCO3", "ion", "bicarbonate (estimated from pH and CO2)", charge=-1,
             eq_per_mol=1, conductance=44.5),
-    # --- gases (Wesely 1989 Table 2; diffusivities as stated) -----------------------
+    # --- gases (H*, f0: Wesely 1989 Table 2; diffusivities as stated) --------------------
     Species("SO2", "SO2", "gas", "sulfur dioxide", "S", 1, 0, 2, henry_eff=1e5,
             reactivity=0.0, diffusivity_0=0.1089e-4, diffusivity_source=_DIFF_MASSMAN),
     Species("HNO3", "HNO3", "gas", "nitric acid", "N", 1, 0, 1, henry_eff=1e14,
