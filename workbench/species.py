@@ -152,7 +152,7 @@ _TABLE = [
     Species("PO4", "PO4", "ion", "phosphate", charge=-3, eq_per_mol=3),
     Species("HCO3", "HCO3", "ion", "bicarbonate (estimated from pH and CO2)", charge=-1,
             eq_per_mol=1, conductance=44.5),
-    # --- gases (H*, f0: Wesely 1989 Table 2; diffusivities as stated) --------------------
+    # --- gases (H*, f0: Wesely 1989 Table 2; diffusivities as stated) -------
     Species("SO2", "SO2", "gas", "sulfur dioxide", "S", 1, 0, 2, henry_eff=1e5,
             reactivity=0.0, diffusivity_0=0.1089e-4, diffusivity_source=_DIFF_MASSMAN),
     Species("HNO3", "HNO3", "gas", "nitric acid", "N", 1, 0, 1, henry_eff=1e14,
