@@ -122,11 +122,23 @@ SOURCE_WORDS = re.compile(
     r"\b(1[89]|20)\d\d\b|CODATA|\bISO\b|CGPM|IUPAC|\bSI\b|Handbook|Report No|memory|"
     r"common practice|\bour (choice|default|rule|own|convention)|\bours\b|definition|"
     r"numerical device|measured:", re.I)
-#: Modules whose module-level numeric constants are the project-wide physical and
-#: empirical tables (the schemes' own tables are checked with their modules).
-CONSTANT_MODULES = ("workbench/constants.py", "workbench/landuse.py",
-                    "workbench/wet/options.py", "workbench/analysis/trends.py",
-                    "workbench/io/metclock.py")
+#: Modules whose module-level numeric constants are physical or empirical values and
+#: thresholds (QA, completeness, plausibility, clock checks, uncertainty).  Not here:
+#: the gas schemes' tables (wesely1989.py, zhang2003.py), sourced by their section
+#: headers and equation numbers and checked against the papers in tests/drydep, and
+#: modules of technical constants only (block and chunk sizes, unit factors).
+CONSTANT_MODULES = (
+    "workbench/constants.py", "workbench/landuse.py", "workbench/species.py",
+    "workbench/periods.py", "workbench/preflight.py", "workbench/budget.py",
+    "workbench/surface/aerodynamic.py", "workbench/surface/roughness.py",
+    "workbench/wet/options.py", "workbench/wet/qa.py", "workbench/wet/carbonate.py",
+    "workbench/wet/seasalt.py", "workbench/wet/screening.py", "workbench/wet/unitslip.py",
+    "workbench/io/metclock.py", "workbench/io/metchecks.py", "workbench/io/plausible.py",
+    "workbench/io/airslip.py", "workbench/io/samplegaps.py",
+    "workbench/drydep/options.py", "workbench/drydep/particle_fractions.py",
+    "workbench/drydep/codeposition.py",
+    "workbench/analysis/trends.py", "workbench/analysis/exceedance.py",
+    "workbench/analysis/uncertainty.py", "workbench/analysis/sensitivity_options.py")
 
 
 def _numeric(node) -> bool:
@@ -163,7 +175,7 @@ def unsourced_constants(text: str) -> list:
         while j >= 0 and (lines[j].lstrip().startswith("#")
                           or (not comment and re.match(r"[A-Z][A-Z0-9_, ]*=", lines[j]))):
             if lines[j].lstrip().startswith("#"):
-                comment.insert(0, lines[j])
+                comment.insert(0, re.sub(r"^\s*#:?\s?", "", lines[j]))
             j -= 1
         own = " ".join(lines[node.lineno - 1:node.end_lineno])
         if not SOURCE_WORDS.search(" ".join(comment) + " " + own):
