@@ -43,8 +43,9 @@ def missing_sources(sections: dict, sources: dict) -> list:
 
 
 def bad_entries(sources: dict) -> list:
-    """Entries whose kind is not one of KINDS, whose text is empty, or that say
-    "published" without an author-year citation."""
+    """Entries whose kind is not one of KINDS, whose text is empty or holds a "|" (it
+    would split the cell of docs/scenario.md's table), or that say "published" without
+    an author-year citation."""
     out = []
     for sec, entries in sources.items():
         for name, entry in entries.items():
@@ -53,6 +54,8 @@ def bad_entries(sources: dict) -> list:
                 out.append(f"{sec}.{name}: kind {kind!r} is not one of {KINDS}")
             elif len(text.strip()) < 3:
                 out.append(f"{sec}.{name}: no text beside {kind!r}")
+            elif "|" in text:
+                out.append(f"{sec}.{name}: '|' in the text splits the table cell")
             elif kind == "published" and not CITATION.search(text):
                 out.append(f"{sec}.{name}: 'published' without author and year: {text!r}")
     return out
@@ -84,9 +87,11 @@ def test_checks_catch_a_missing_and_a_malformed_source():
         "planted.undocumented: no source", "planted.gone: source of no option"]
     assert bad_entries({"s": {"a": ("published", "a handbook"),
                               "b": ("hearsay", "x"), "c": ("our choice", ""),
-                              "d": ("published", "Keene et al. (1986)")}}) == [
+                              "d": ("published", "Keene et al. (1986)"),
+                              "e": ("our choice", "limit on |x|")}}) == [
         "s.a: 'published' without author and year: 'a handbook'",
-        f"s.b: kind 'hearsay' is not one of {KINDS}", "s.c: no text beside 'our choice'"]
+        f"s.b: kind 'hearsay' is not one of {KINDS}", "s.c: no text beside 'our choice'",
+        "s.e: '|' in the text splits the table cell"]
 
 
 def _table_rows(text: str, section: str) -> dict:

@@ -51,9 +51,9 @@ WET = {
                           "dusty rain (hundreds of umol/L)"),
     "max_seasalt_concentration": ("our choice", "10 000 umol/L; coastal spray-laden "
                                   "samples reach a few thousand umol/L of Na and Cl"),
-    "ion_balance_tiers": ("from memory", f"{_GAW}: allowed |ion difference| by CE + AN "
+    "ion_balance_tiers": ("from memory", f"{_GAW}: allowed absolute ion difference by CE + AN "
                           "(docs/methods_wet.md 3.3)"),
-    "conductivity_tiers": ("from memory", f"{_GAW}: allowed |conductivity difference| "
+    "conductivity_tiers": ("from memory", f"{_GAW}: allowed absolute conductivity difference "
                            "by measured conductivity (docs/methods_wet.md 3.4)"),
     "bicarbonate": ("common practice", "HCO3- in equilibrium with atmospheric CO2 "
                     "counted among the anions; it matters only above pH ~5.5"),
