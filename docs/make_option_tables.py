@@ -2,7 +2,9 @@
 
 Run ``python docs/make_option_tables.py`` after changing an option; the text between
 the ``<!-- options:NAME -->`` markers of docs/scenario.md is replaced.  Descriptions
-come from the ``#:`` comments above each field or from the class's Attributes section.
+come from the ``#:`` comments above each field or from the class's Attributes section;
+the source of each default from :data:`workbench.option_sources.SOURCES` (one entry per
+field, checked by tests/test_docs_sources.py).
 """
 from __future__ import annotations
 
@@ -14,6 +16,7 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
+from workbench.option_sources import source_text  # noqa: E402
 from workbench.scenario import option_sections  # noqa: E402
 
 
@@ -40,7 +43,8 @@ def _descriptions(cls) -> dict:
 
 def table(name, cls) -> str:
     desc = _descriptions(cls)
-    rows = ["| key | default | meaning, unit and source of the default |", "|---|---|---|"]
+    rows = ["| key | default | meaning and unit | source of the default |",
+            "|---|---|---|---|"]
     for f in dataclasses.fields(cls):
         if f.name.startswith("_"):
             continue
@@ -49,7 +53,8 @@ def table(name, cls) -> str:
         text = repr(d)
         if len(text) > 40:
             text = "(see below)" if f.name == "particle_modes" else text[:37] + "..."
-        rows.append(f"| `{f.name}` | `{text}` | {desc.get(f.name, '')} |")
+        rows.append(f"| `{f.name}` | `{text}` | {desc.get(f.name, '')} | "
+                    f"{source_text(name, f.name)} |")
     return "\n".join(rows)
 
 

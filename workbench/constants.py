@@ -91,7 +91,8 @@ OBLIQUITY = 23.439
 
 # --- time ------------------------------------------------------------------------------
 #: Offset from the end of an hour-ending record to its middle (records are labelled by
-#: the end of their hour; the sun and the hour of day are taken at the middle).
+#: the end of their hour; the sun and the hour of day are taken at the middle; by
+#: definition of an hour-ending record, our convention for the record stamp).
 HALF_HOUR = np.timedelta64(30, "m")
 
 # --- limits of a user's fixed velocity -------------------------------------------------

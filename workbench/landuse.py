@@ -42,7 +42,8 @@ DEFAULT_LAI = {
     "grass": (1.0, 2.5), "crops": (0.1, 3.5), "moorland": (1.0, 2.0), "wetland": (0.5, 3.0),
     "water": (0.0, 0.0), "urban": (0.1, 1.0), "barren": (0.0, 0.0), "snow_ice": (0.0, 0.0),
 }
-#: Month of the largest LAI in the northern hemisphere (six months later in the south).
+#: Month of the largest LAI in the northern hemisphere (six months later in the south);
+#: July, mid-summer of temperate deciduous canopies (common practice, from memory).
 LAI_PEAK_MONTH = 7
 
 

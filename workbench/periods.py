@@ -44,7 +44,8 @@ SEASON_START_MONTH = {"DJF": 12, "MAM": 3, "JJA": 6, "SON": 9}
 #: Season of each calendar month (index 1..12; index 0 unused).
 MONTH_SEASON = np.array(["", "DJF", "DJF", "MAM", "MAM", "MAM", "JJA", "JJA", "JJA",
                          "SON", "SON", "SON", "DJF"], dtype=object)
-#: Default first month of a hydrological year (October; the US water-year habit).
+#: Default first month of a hydrological year (October; the US water-year habit,
+#: common practice).
 DEFAULT_HYDRO_START_MONTH = 10
 #: Months per step and anchor month of the regular resolutions.
 _STEP_MONTHS = {"month": 1, "season": 3, "year": 12, "hydro_year": 12}

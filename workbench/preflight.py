@@ -55,7 +55,8 @@ class Prepared:
 
 
 #: Days by which the reporting span may reach beyond an input's span before it is said
-#: (a weekly sample's edge is no gap) [d].
+#: (a weekly sample's edge is no gap) [d] (a month, the longest usual sampling
+#: period; our choice).
 COVERAGE_SLACK_DAYS = 31
 
 

@@ -418,7 +418,8 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
     return t
 
 
-#: Quantiles of the draws in exceedance.csv [1] and the suffixes of their columns.
+#: Quantiles of the draws in exceedance.csv [1] and the suffixes of their columns (the
+#: median and the 5-95 % band, common practice).
 DRAW_QUANTILES = (0.05, 0.5, 0.95)
 DRAW_SUFFIXES = ("_p05", "_p50", "_p95")
 

@@ -25,7 +25,8 @@ from .trends_batch import EXACT_MAX_N, exact_p  # noqa: F401  (the exact p of fe
 #: from memory), and trend assessments of deposition networks commonly ask for ten
 #: years or more (common practice).
 MIN_YEARS = 10
-#: Two-sided significance level of the slope's confidence band [1].
+#: Two-sided significance level of the slope's confidence band [1]; 0.05, the 95 %
+#: band of Gilbert (1987), ch. 16 (common practice; from memory).
 ALPHA = 0.05
 class TrendResult(NamedTuple):
     """One trend test.  Slopes in the series' unit per year."""

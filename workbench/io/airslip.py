@@ -55,23 +55,28 @@ BALANCE_BAND = (0.5, 1.25, (
     "acidic), seen in single samples in SO2-rich summers but not in most weekly "
     "samples of a sampler (from memory)"))
 #: Smallest anion sum 2 SO4 + NO3 (+ Cl) of an evaluable sample [eq m-3]
-#: (5 neq/m3, about 0.25 ug/m3 of sulfate): below it blanks dominate the ratio.
+#: (5 neq/m3, about 0.25 ug/m3 of sulfate; our choice): below it blanks dominate the
+#: ratio.
 MIN_ANIONS = 5e-9
 #: Fewest evaluable samples of a sampler for a note [-]: with fewer, "more than half"
-#: is three or four samples, which a few unusual weeks give.
+#: is three or four samples, which a few unusual weeks give (our choice).
 MIN_SAMPLES = 8
 #: Columns of the particle balance that have an element basis (species, side).
 BALANCE_COLUMNS = (("pSO4", "anion"), ("pNO3", "anion"), ("pNH4", "cation"))
 #: Largest relative distance of the median ratio of two samplers from a unit factor
 #: for a match [-] (6 %: the ppb factor at 20 degC differs from that of ambient
-#: temperatures by a few %; NH3's element factor 1.216 and ppb factor 1.412 stay apart).
+#: temperatures by a few %; NH3's element factor 1.216 and ppb factor 1.412 stay apart;
+#: our choice).
 MATCH_TOL = 0.06
-#: Relative distance from the matched factor within which a period counts as steady [-].
+#: Relative distance from the matched factor within which a period counts as steady [-]
+#: (20 %: two samplers of one gas by different methods differ by 10-20 % from period to
+#: period, from memory; our choice).
 STEADY_TOL = 0.20
 #: Shortest coverage of a longer sampler's period by the shorter sampler's valid
 #: periods for the comparison [-] (three quarters: common practice for a mean).
 MIN_COVERAGE = 0.75
-#: Fewest compared periods of two samplers for a note [-].
+#: Fewest compared periods of two samplers for a note [-] (six: half a year of monthly
+#: samplers, enough for a median; our choice).
 MIN_PERIODS = 6
 #: Mixing-ratio unit of the same scale as a mass unit [ug m-3 per unit] -> name.
 _MIXING_OF_SCALE = {1e3: "ppm", 1.0: "ppb", 1e-3: "ppt"}

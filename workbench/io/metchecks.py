@@ -82,7 +82,9 @@ def range_text(name, lo, hi) -> str:
 NIGHT_ELEVATION_DEG = -3.0
 #: Irradiance above which a night hour is suspicious [W m-2] (common practice).
 NIGHT_RADIATION_MAX = 25.0
-#: Share of suspicious night hours at which the time base is questioned [-].
+#: Share of suspicious night hours at which the time base is questioned [-] (5 %: a
+#: shifted clock puts dawn or dusk hours in the night every day, far above the few
+#: stray readings of a sound radiometer; our choice).
 NIGHT_SHARE_HINT = 0.05
 
 

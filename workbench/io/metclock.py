@@ -63,9 +63,10 @@ MIN_SUNNY_DAYS = 20
 #: A lag at or beyond this is noted [h]: half-way between no error and the smallest clock
 #: error that labels make (a whole hour), beyond the lags of clean cloudy records (at
 #: most 0.06 h a year on the demo, -0.40 h with a strong afternoon cloud maximum;
-#: section 4).
+#: section 4; our choice from these measured lags).
 LAG_NOTE_H = 0.75
-#: Months of the summer half north of the equator (swapped south of it).
+#: Months of the summer half north of the equator (swapped south of it): April to
+#: September, the half-year around the June solstice (common practice).
 SUMMER_MONTHS_NORTH = (4, 5, 6, 7, 8, 9)
 #: Summer-time labels: the summer half this much later than the winter half [h], to
 #: within SUMMER_TIME_TOL_H [h] (the clock change of summer time; common practice).
@@ -297,7 +298,7 @@ def notes_from_lags(table, site_ids, catalogue, file_name) -> list[str]:
 
 
 #: Records (site x hour) checked at a time unless the caller says [record]: the met
-#: readers' group of whole sites (``io.met.NETCDF_GROUP_RECORDS``, ``io.metfast.CHECK_ROWS``).
+#: readers' group of whole sites (``io.met.NETCDF_GROUP_RECORDS``, ``io.metfast.CHECK_ROWS``; our choice: a memory bound, not a physical value).
 GROUP_RECORDS = 400_000
 
 

@@ -52,14 +52,16 @@ AIR_RANGES = {
 }
 
 #: Factor by which values written in a unit 1000x smaller than their header's (ng/m3
-#: under a ug/m3 header, ppb under ppm) are too high [-].
+#: under a ug/m3 header, ppb under ppm) are too high [-] (by definition of the SI
+#: prefixes).
 UNIT_SLIP = 1000.0
 #: Units a column may be written in, searched for the one 1000x smaller than a header's.
 _SLIP_UNITS = ("pg/m3", "ng/m3", "ug/m3", "mg/m3", "ppt", "ppb", "ppm",
                "fmol/mol", "pmol/mol", "nmol/mol", "umol/mol", "pmol/m3", "nmol/m3",
                "umol/m3", "mmol/m3")
 #: Temperature and pressure used to express a mixing ratio as ug/m3 for the range
-#: checks only [K], [Pa] (20 degC, 1013.25 hPa; the checks are order-of-magnitude).
+#: checks only [K], [Pa] (20 degC, 1013.25 hPa; the checks are order-of-magnitude;
+#: our choice).
 CHECK_TEMPERATURE, CHECK_PRESSURE = 293.15, 101325.0
 
 

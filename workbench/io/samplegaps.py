@@ -11,10 +11,11 @@ from __future__ import annotations
 
 import numpy as np
 
-#: A gap shorter than this is a changeover, not a missing sample [d].
+#: A gap shorter than this is a changeover, not a missing sample [d] (a day: a weekly
+#: changeover takes hours; our choice).
 MIN_GAP_DAYS = 1.0
 #: Days by which a site's record may start after / end before the file's unsaid [d]
-#: (the value of :data:`workbench.preflight.COVERAGE_SLACK_DAYS`).
+#: (the value of :data:`workbench.preflight.COVERAGE_SLACK_DAYS`, our choice).
 EDGE_SLACK_DAYS = 31
 
 

@@ -17,7 +17,7 @@ import pandas as pd
 
 #: An id with at most this many rows at a site may be a typo [rows] (our choice) ...
 RARE_ROWS = 3
-#: ... of an id with at least this many times its rows at the same site [1].
+#: ... of an id with at least this many times its rows at the same site [1] (our choice).
 COMMON_FACTOR = 10
 #: Characters a hand or a font confuses (compared as the first of each pair).
 _LOOKALIKE = str.maketrans({"O": "0", "o": "0", "I": "1", "l": "1", "i": "1", "L": "1"})

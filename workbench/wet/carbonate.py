@@ -24,7 +24,8 @@ import numpy as np
 from ..constants import STANDARD_PRESSURE
 from ..units import ureg
 
-#: Reference temperature of the tabulated constants [K].
+#: Reference temperature of the tabulated constants [K] (25 degC, that of the tables
+#: of Seinfeld and Pandis 2006 below).
 REFERENCE_TEMPERATURE = 298.15
 
 #: name -> (K at 298.15 K, -dH/R [K], unit, meaning); Seinfeld and Pandis (2006),

@@ -38,7 +38,8 @@ MOL_M3_PER_MOLAR = ureg.Quantity(1.0, "mol/L").to("mol/m**3").magnitude
 CONDUCTIVITY_FACTOR = (ureg.Quantity(1.0, "S*cm**2/mol") *
                        ureg.Quantity(1.0, "umol/L")).to("uS/cm").magnitude
 
-#: Values given to a censored result, as a multiple of its detection limit.
+#: Values given to a censored result, as a multiple of its detection limit (by
+#: definition of the choices of `detection_limit`).
 CENSORED_FACTOR = {"half": 0.5, "limit": 1.0, "zero": 0.0}
 
 #: Relative tolerance of every comparison with a threshold [1] (our choice): a value
