@@ -179,21 +179,61 @@ def _normal_factor(rng, sd, shape):
 
 
 def _stream_key(seed_key) -> list:
-    """Entropy of a random stream from ``(seed, site, ...)``: integers as they are, a
-    site id (text) by its length and UTF-8 bytes, so that a stream is named by the
-    site itself, not by its place in a run."""
+    """Entropy of a random stream from ``(seed, site, ...)``: integers as they are (a
+    negative one, e.g. a time before 1970, shifted by 2**64), a text (site id, sampler
+    id, species) by its length and UTF-8 bytes, so that a stream is named by what it
+    draws for, not by its place in a run."""
     out = []
     for part in seed_key:
         if isinstance(part, str):
             b = part.encode("utf-8")
             out.extend([len(b), *b])
         else:
-            out.append(int(part))
+            out.append(int(part) % 2 ** 64)
+    return out
+
+
+#: Tags after a site's key: the streams of a calendar year's systematic factors, and
+#: of a sample's (or a period's) random errors.
+YEAR_STREAM, SAMPLE_STREAM = 2, 3
+
+
+def keyed_normal_factor(key, what, idents, sd, n_draws, shift=1.0):
+    """Factors ``shift + sd z`` cut at 0, one column per sample, each from the stream
+    named by the site's key, `what` and the sample's identity.
+
+    Parameters
+    ----------
+    key : list of int
+        The site's stream key (:func:`_stream_key` of ``(seed, site id)``).
+    what : str
+        What the error is of (``depth``, ``precip:SO4``, ``air:pNH4``,
+        ``vd_fill:NH3:pNH4``, ``pwm_fill:SO4``).
+    idents : sequence of tuple
+        The identity of each sample (:func:`workbench.analysis.layer.sample_identity`)
+        or period ((start, end) [ns since 1970]).
+    sd : float or ndarray (n,)
+        Relative standard deviation of each [1]; 0 draws nothing (factor `shift`).
+    n_draws : int
+
+    Returns
+    -------
+    ndarray (n_draws, n) [1]
+        A sample's column is the same in every run that holds the sample, whatever
+        other samples the run holds (the draws of a sample do not depend on its place).
+    """
+    sd = np.broadcast_to(np.asarray(sd, float), (len(idents),))
+    out = np.full((n_draws, len(idents)), float(shift))
+    base = key + [SAMPLE_STREAM] + _stream_key((what,))
+    # one stream per sample: creating a stream costs about 20 us, the draws the rest
+    for j in np.flatnonzero(sd > 0):
+        z = np.random.default_rng(base + _stream_key(idents[j])).standard_normal(n_draws)
+        out[:, j] = np.maximum(shift + sd[j] * z, 0.0)
     return out
 
 
 def site_noise(layer_site, opt: UncertaintyOptions, n_draws: int, n_years: int, n_periods: int,
-               seed_key, year0: int = 0) -> SiteNoise:
+               seed_key, year0: int = 0, period_bounds=None) -> SiteNoise:
     """Draw the factors of one site (the same for any resolution of the same run).
 
     Parameters
@@ -208,8 +248,18 @@ def site_noise(layer_site, opt: UncertaintyOptions, n_draws: int, n_years: int, 
     year0 : int
         The first calendar year.  The systematic factors of a site-year (Vd, gauge
         catch) come from a stream of their own per calendar year, so that they do not
-        depend on the years the run spans; the random errors of the samples do depend
-        on the samples in the run.
+        depend on the years the run spans.
+    period_bounds : tuple of ndarray, optional
+        (start, end) of the reporting periods (datetime64); the error of a filled PWM
+        is named by its period's bounds (by the period's place when not given).
+
+    Notes
+    -----
+    The random errors of the samples (depth, analyses, gap-filled Vd) come from a
+    stream per sample and quantity, named by the site's key and the sample's identity
+    (sampler id, start, :func:`workbench.analysis.layer.sample_identity`): a sample
+    draws the same errors in a run of 2016-2023 as in one of 2019-2021, and in a run
+    whose input files hold only those years.
     """
     key = _stream_key(seed_key)
     d = n_draws
@@ -218,37 +268,44 @@ def site_noise(layer_site, opt: UncertaintyOptions, n_draws: int, n_years: int, 
     z_own = np.empty((d, n_years, k))
     gauge = np.empty((d, n_years))
     for y in range(n_years):                 # a few years: one stream per calendar year
-        rng_y = np.random.default_rng(key + [2, int(year0) + y])
+        rng_y = np.random.default_rng(key + [YEAR_STREAM, int(year0) + y])
         z_shared[:, y] = rng_y.standard_normal((d, 1))
         z_own[:, y] = rng_y.standard_normal((d, k))
         gauge[:, y] = _normal_factor(rng_y, opt.gauge_catch_rel_sd, (d,))
     ln_gsd = np.log([opt.gsd(sp) for sp in DRY_SPECIES])
     rho = opt.vd_shared_fraction
     vd = np.exp(ln_gsd * (np.sqrt(rho) * z_shared + np.sqrt(1 - rho) * z_own))
-    rng = np.random.default_rng(key)
     wet = layer_site.wet
     depth, pconc, pwm_fill = None, {}, {}
-    n_s = wet.n_samples if wet is not None else 0
-    depth = _normal_factor(rng, opt.depth_rel_sd, (d, n_s))
+    idents = wet.ident if wet is not None else []
+    depth = keyed_normal_factor(key, "depth", idents, opt.depth_rel_sd, d)
     if wet is not None:
         for ion in sorted(wet.conc):
-            cens = np.zeros(n_s, bool)
+            cens = np.zeros(wet.n_samples, bool)
             cens[wet.sample[wet.censored[ion]]] = True
             sd = np.where(cens, opt.censored_rel_sd, opt.precip_conc_rel_sd)
-            pconc[ion] = _normal_factor(rng, sd, (d, n_s))
+            pconc[ion] = keyed_normal_factor(key, f"precip:{ion}", idents, sd, d)
     air, vd_fill = {}, {}
     for sp in DRY_SPECIES:
         if sp not in layer_site.dry:
             continue
         rows = layer_site.dry[sp]
         sd = np.where(rows.censored, opt.censored_rel_sd, opt.air_rel_sd)
-        air[sp] = _normal_factor(rng, sd, (d, len(rows.censored)))
-        vd_fill[sp] = _normal_factor(rng, opt.vd_fill_rel_sd, (d, len(rows.censored))) - 1.0
-    # the filled PWMs per reporting period: a stream of their own, so that the
-    # factors above are the same for every resolution of the same run
-    rng_fill = np.random.default_rng(key + [1])
+        # an air sample's analytical error is of its own species (a bracket member's
+        # rows in the species a pair is moved into keep their error)
+        air[sp] = keyed_normal_factor(key, "air", rows.ident, sd, d)
+        # a fill error acts on the hours not modelled only: none drawn without them
+        sd_fill = np.where((rows.filled > 0).any(axis=(1, 2)), opt.vd_fill_rel_sd, 0.0)
+        vd_fill[sp] = keyed_normal_factor(key, f"vd_fill:{sp}", rows.ident, sd_fill, d) - 1.0
+    # the filled PWMs per reporting period, named by the period's bounds
+    if period_bounds is None:
+        bounds = [(p, p) for p in range(n_periods)]
+    else:
+        t0, t1 = (np.asarray(b, dtype="datetime64[ns]").astype(np.int64) for b in period_bounds)
+        bounds = list(zip(t0.tolist(), t1.tolist()))
     for ion in sorted(layer_site.pwm):
-        pwm_fill[ion] = _normal_factor(rng_fill, opt.pwm_fill_rel_sd, (d, n_periods))
+        pwm_fill[ion] = keyed_normal_factor(key, f"pwm_fill:{ion}", bounds,
+                                            opt.pwm_fill_rel_sd, d)
     return SiteNoise(vd, gauge, depth, pconc, air, vd_fill, pwm_fill)
 
 
@@ -508,7 +565,8 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
                  for name in TOTALS + ("oxidized_N", "reduced_N", "potential_acidity")}
         for k in range(n_s):
             noise = site_noise(lay.sites[k], options, options.draws, n_years, n_p,
-                               (options.seed, str(ds["site"].values[k])), year0)
+                               (options.seed, str(ds["site"].values[k])), year0,
+                               (ds["period_start"].values, ds["period_end"].values))
             comp = component_draws(lay, k, noise, year0)
             tot = totals_of(comp)
             comp_q[:, k] = np.quantile(comp, q, axis=0)
