@@ -48,6 +48,33 @@ def test_check_names_the_weeks_without_samples(scenario, capsys):
     assert not re.search(r"(air|precipitation) v01\b", notes)   # no gap, no note
 
 
+def test_every_met_record_is_a_whole_number_of_years(scenario, run):
+    """The run's years are UTC, the invented met is labelled by the END of the hour in
+    local standard time (UTC+1): 2016-2017 is the hours ending 2016-01-01T01:00 to
+    2018-01-01T00:00 UTC, 8,784 + 8,760 (2016 a leap year; common practice).  The
+    generator cut the local labels at local midnight, so every site lacked the last
+    2 hours of 2017 (UTC) and had one of 2015; the mast gap of v04 is cut by UTC days
+    as well."""
+    from workbench.pipeline import Study
+    from workbench.scenario import load_scenario
+    met = Study.from_scenario(load_scenario(scenario)).inputs.met
+    t = pd.DatetimeIndex(met["time"].values)
+    assert (t[0], t[-1], len(t)) == (pd.Timestamp("2016-01-01T01:00"),
+                                     pd.Timestamp("2018-01-01T00:00"), 8784 + 8760)
+    present = met["row_present"].to_pandas()           # (site, time)
+    assert present.loc["v01"].all()
+    # the mast of v04 down for 35 whole days: 840 hours, the first ending 01:00 UTC
+    gap = t[~present.loc["v04"].to_numpy()]
+    assert len(gap) == 840 and gap[0] == pd.Timestamp("2017-01-10T01:00")
+    assert gap[-1] == pd.Timestamp("2017-02-14T00:00")
+    result, _ = run
+    t = result.table
+    dry = t[(t["pathway"] == "dry") & (t["species"] == "SO2") & (t["period"] == "2017")]
+    # every hour of 2017 with a modelled Vd at the sites without a met gap (1 - 2/8760
+    # before)
+    assert (dry[dry["site"].isin(["v01", "v02", "v03"])]["vd_coverage"] == 1.0).all()
+
+
 def test_gaps_lower_the_coverage_and_reach_the_report(run):
     result, out = run
     t = result.table
@@ -57,8 +84,8 @@ def test_gaps_lower_the_coverage_and_reach_the_report(run):
     assert row["air_coverage"] == pytest.approx(1 - 1680 / 8760, abs=2e-4)
     assert row["status"] == "complete"
     met = dry[dry["site"] == "v04"].iloc[0]
-    # 840 h filled of 8,760 (plus the record's last hour, absent at every site):
-    # 9.6 % filled, not more than 10 % (min_vd_coverage 0.9) -> still complete
+    # 840 h filled of 8,760: 9.6 % filled, not more than 10 % (min_vd_coverage 0.9)
+    # -> still complete
     ref = dry[dry["site"] == "v01"].iloc[0]["vd_coverage"]
     assert ref - met["vd_coverage"] == pytest.approx(840 / 8760, abs=2e-4)
     assert met["status"] == "complete"
@@ -79,7 +106,7 @@ def test_gaps_lower_the_coverage_and_reach_the_report(run):
     assert [r[:2] for r in rows] == [["v02", "2017"], ["v03", "2017"], ["v04", "2017"]], rows
     assert rows[0][2] == "71%"        # 39 of 52 weeks' hours: 0.712 (wet_coverage_fraction)
     assert rows[1][3] == "81%"        # 1 - 1680/8760
-    assert rows[2][4] == "90%"        # 1 - 842/8760
+    assert rows[2][4] == "90%"        # 1 - 840/8760
 
 
 def test_coverage_table_rule():
