@@ -76,6 +76,53 @@ def join_notes(acc, text):
     return np.where(acc == "", text, acc + "; " + text).astype(object)
 
 
+#: The shortest stretch of a period without samples that a budget row notes [h]: a
+#: week, the usual sample (our choice; a weekly sample across the edge of the record's
+#: first year leaves less).
+SAMPLING_GAP_NOTE_H = 168.0
+
+
+def sampling_gap_note(note, status, coverage, hours, role):
+    """Add to a component's note the hours of its period without a usable sample.
+
+    A gap within the completeness thresholds keeps a component ``complete`` (the covered
+    weeks stand for the period): the note says it where the number is read, e.g. ``air:
+    10 weeks without a usable sample (80.8 % of the period's hours covered)``.  Written
+    for a component that is not ``missing`` with at least :data:`SAMPLING_GAP_NOTE_H`
+    hours of its period not covered: no sample (a sampler out of service) or only
+    samples left out (a lost sample; input_rows.csv says why).  The coverage is the
+    budget's own (``air_coverage``; ``wet_coverage_fraction``, where dry and trace weeks
+    count as covered).
+
+    Parameters
+    ----------
+    note, status : ndarray of str
+        The component's note and status (any shape, the period axis among them).
+    coverage : ndarray
+        Share of the period's hours covered [1] (NaN: not applicable), as `note`.
+    hours : ndarray
+        Hours of the periods [h], broadcastable to `coverage`.
+    role : str
+        ``air`` or ``precipitation``: the word the note opens with.
+
+    Returns
+    -------
+    ndarray of str
+    """
+    cov = np.asarray(coverage, float)
+    note = np.array(np.broadcast_to(np.asarray(note, dtype=object), cov.shape))
+    gap = (1.0 - cov) * np.broadcast_to(np.asarray(hours, float), cov.shape)      # [h]
+    show = np.flatnonzero((np.isfinite(cov) & (cov > 0) & (status != "missing")
+                           & (gap >= SAMPLING_GAP_NOTE_H - 1e-6)).ravel())
+    flat, flat_gap, flat_cov = note.reshape(-1), gap.reshape(-1), cov.reshape(-1)
+    for i in show:                           # the few rows with a gap: their words
+        w = round(float(flat_gap[i]) / 168.0, 1)
+        text = (f"{role}: {w:g} week{'' if w == 1 else 's'} without a usable sample "
+                f"({100 * flat_cov[i]:.1f} % of the period's hours covered)")
+        flat[i] = text if not flat[i] else flat[i] + "; " + text
+    return flat.reshape(cov.shape)
+
+
 def wet_mean_status(w, name, w_status, fallback=False):
     """The status rule of one wet mean: of a budget wet component (:func:`wet_component`)
     and of each mean of precipitation_annual.csv
