@@ -10,14 +10,10 @@ sample draw the same numbers in every run that holds them (docs/methods_uncertai
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import TYPE_CHECKING
 
 import numpy as np
 
 from .layer import DRY_SPECIES
-
-if TYPE_CHECKING:                       # the options live with the Monte Carlo
-    from .uncertainty import UncertaintyOptions
 
 
 @dataclass
@@ -104,14 +100,14 @@ def keyed_normal_factor(key, what, idents, sd, n_draws, shift=1.0):
     return out
 
 
-def site_noise(layer_site, opt: UncertaintyOptions, n_draws: int, n_years: int, n_periods: int,
+def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
                seed_key, year0: int = 0, period_bounds=None) -> SiteNoise:
     """Draw the factors of one site (the same for any resolution of the same run).
 
     Parameters
     ----------
     layer_site : SiteLayer
-    opt : UncertaintyOptions
+    opt : workbench.analysis.uncertainty.UncertaintyOptions
     n_draws, n_years, n_periods : int
         Draws; calendar years ``year0 .. year0 + n_years - 1``; reporting periods.
     seed_key : tuple
