@@ -4,11 +4,11 @@
     python benchmarks/analyst_network.py --out DIR --sites 8 --years 3
 
 Writes ``sites.toml``, ``precipitation.csv``, ``air.csv``, ``met.csv.gz`` and
-``scenario.toml`` into DIR (and, for more than the demo's 8 years, the demo generator's
-own files of that length into ``DIR/_base``).  Every name is invented.
+``scenario.toml`` into DIR (and, for the demo's 8 years or more, the demo generator's
+own files of a year more into ``DIR/_base``).  Every name is invented.
 
 Site ``i`` copies the rows of demo site ``i mod 4`` (``demo_data/make_demo.py``, run
-for ``--years`` years when the bundled 8 are too few), under an invented id and name,
+for ``--years`` + 1 years when the bundled 8 are too few), under an invented id and name,
 with seeded differences so that the sites do not tie:
 
 - concentrations in air scaled by a factor of the site (0.6-1.6);
@@ -36,6 +36,7 @@ import argparse
 import gzip
 import subprocess
 import sys
+from datetime import datetime, timedelta
 from pathlib import Path
 
 import numpy as np
@@ -70,14 +71,15 @@ def _toml_load(path):
 
 
 def base_folder(out: Path, years: int) -> Path:
-    """The demo files with at least `years` years: the bundled ones, or made by
-    ``demo_data/make_demo.py --years`` into ``out/_base``."""
-    if years <= DEMO_YEARS:
+    """The demo files with more than `years` years: the bundled ones, or made by
+    ``demo_data/make_demo.py --years`` (one year more) into ``out/_base``.  The demo's
+    years are local (UTC+1): the last hour of a UTC year is in the local year after."""
+    if years < DEMO_YEARS:
         return DEMO
     base = out / "_base"
     if not (base / "met.csv.gz").exists():
         subprocess.run([sys.executable, str(DEMO / "make_demo.py"), "--out", str(base),
-                        "--years", str(years)], check=True, cwd=str(ROOT),
+                        "--years", str(years + 1)], check=True, cwd=str(ROOT),
                        stdout=subprocess.DEVNULL)
     return base
 
@@ -96,7 +98,7 @@ class _Plan:
 
     def __init__(self, n_sites, years, templates, imperfections=None):
         rng = np.random.default_rng(SEED)
-        self.hi = f"{FIRST_YEAR + years}-01-01"
+        self.lo, self.hi = f"{FIRST_YEAR}-01-01", f"{FIRST_YEAR + years}-01-01"
         self.ids = [f"v{i + 1:02d}" for i in range(n_sites)]
         self.template = [templates[i % len(templates)]["id"] for i in range(n_sites)]
         self.air = rng.uniform(0.6, 1.6, n_sites)
@@ -126,7 +128,8 @@ class _Plan:
 
     def dropped(self, kind, i, when):
         lo_hi = self.drop[kind].get(i)
-        return when >= self.hi or (lo_hi is not None and lo_hi[0] <= when < lo_hi[1])
+        return (when >= self.hi or when < self.lo
+                or (lo_hi is not None and lo_hi[0] <= when < lo_hi[1]))
 
 
 def _names(n_sites, templates):
@@ -135,9 +138,27 @@ def _names(n_sites, templates):
             + (f" {i // len(_FIRST) + 1}" if i >= len(_FIRST) else "") for i in range(n_sites)]
 
 
-def _copy_rows(lines, plan, kind, edit):
+def _hour_day(label: str, shift_h: float) -> str:
+    """Day (``YYYY-MM-DD``, UTC) in which the hour of a met row starts.
+
+    The met time is the END of the hour in the site's local standard time, so the hour
+    starts ``shift_h`` = utc_offset_h + 1 hours before the label in UTC: at UTC+1 the
+    row labelled ``2018-01-01T01:00`` is the last hour of 2017 (UTC), the run's periods
+    being in UTC.
+    """
+    h = int(label[11:13]) + int(label[14:16]) / 60 - shift_h
+    if 0 <= h < 24:                       # the same day: no date arithmetic (most rows)
+        return label[:10]
+    t = datetime.fromisoformat(label[:16]) - timedelta(hours=shift_h)
+    return t.date().isoformat()
+
+
+def _copy_rows(lines, plan, kind, edit, utc_offset_h=None):
     """Header and comment lines as they are; each data row once per generated site of
-    its template, through ``edit(cells, i)``, unless the plan drops it."""
+    its template, through ``edit(cells, i)``, unless the plan drops it: by the local
+    day its sample starts, for met by the UTC day its hour starts (`utc_offset_h`:
+    template id -> hours), so that a year of met ends with the hour ending at
+    midnight UTC of 1 January, as the run's periods (UTC) do."""
     out, header, by_template = [], None, {}
     for ln in lines:
         if header is None:
@@ -148,9 +169,11 @@ def _copy_rows(lines, plan, kind, edit):
         by_template.setdefault(ln.split(",", 1)[0], []).append(ln)
     tcol = header.index("time" if kind == "met" else "start")
     for i, sid in enumerate(plan.ids):
+        shift = (utc_offset_h or {}).get(plan.template[i], 0.0) + 1.0
         for ln in by_template.get(plan.template[i], []):
             cells = ln.rstrip("\n").split(",")
-            if plan.dropped(kind, i, cells[tcol][:10]):
+            when = _hour_day(cells[tcol], shift) if kind == "met" else cells[tcol][:10]
+            if plan.dropped(kind, i, when):
                 continue
             cells[0] = sid
             edit(cells, i, header)
@@ -239,7 +262,8 @@ def make_analyst_network(out_dir, n_sites=30, years=10, imperfections=None) -> P
         text = "".join(keep)
     (out / "air.csv").write_text(text, encoding="utf-8")
     with gzip.open(base / "met.csv.gz", "rt", encoding="utf-8") as f:
-        text = _copy_rows(f, plan, "met", met)
+        text = _copy_rows(f, plan, "met", met,
+                          {t["id"]: float(t.get("utc_offset_h", 0.0)) for t in templates})
     with gzip.open(out / "met.csv.gz", "wt", encoding="utf-8", compresslevel=1) as f:
         f.write(text)
     scen = (DEMO / "scenario.toml").read_text(encoding="utf-8").replace(

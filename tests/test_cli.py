@@ -409,6 +409,16 @@ def test_block_sites_help_names_the_block_defaults():
     assert f"more than {AUTO_BLOCK_SITES} sites" in text
 
 
+def test_block_sites_help_says_it_sets_the_workers_blocks_too():
+    """--block-sites K is also the size of the blocks sent to --workers / --scheduler
+    (blocks.run_network takes it as given there); the help said only "sites per block"."""
+    from workbench.cli import build_parser
+    run = build_parser()._subparsers._group_actions[0].choices["run"]
+    text = next(a.help for a in run._actions if "--block-sites" in a.option_strings)
+    assert "in this process and on the workers of --workers or --scheduler alike" in text
+    assert "two blocks per worker" in text
+
+
 def test_ctrl_c_inside_a_gc_callback_is_sent_again(monkeypatch):
     """dask's scheduler hooks a callback into the garbage collector of this process; a
     KeyboardInterrupt raised inside it is printed as "ignored" and the run goes on.  The

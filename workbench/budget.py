@@ -26,7 +26,8 @@ import pandas as pd
 import xarray as xr
 
 from .budgetstatus import (bracket_outputs, bulk_caught_brackets, dry_status, join_notes,
-                           nh3_net_component, wet_component, wet_outputs)
+                           nh3_net_component, sampling_gap_note, wet_component,
+                           wet_outputs)
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
 from .units import deposition_in, element_deposition_in
@@ -266,6 +267,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     bulk = np.array([catalogue[s].collector == "bulk" for s in sites])
     notes = []
     labels = periods["label"].values
+    hours_p = periods["hours"].to_numpy(dtype=float)        # [h]
     if wet is not None:
         w = wet if _same_axis(wet, "site", sites) and _same_axis(wet, "period", labels) else \
             wet.reindex(site=sites, period=labels)
@@ -294,6 +296,9 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             if d is None:
                 comp_note[..., j] = f"no {sp} column in the precipitation chemistry"
                 continue
+            if "coverage_fraction" in w.variables:        # a gap within the thresholds
+                note = sampling_gap_note(note, st, w.variables["coverage_fraction"].values,
+                                         hours_p[None, :], "precipitation")
             if options.bulk_correction == "scale_wet":
                 d = np.where(bulk[:, None], d * options.bulk_wet_factor, d)
                 note = np.where(bulk[:, None], join_notes(note, f"bulk deposition x "
@@ -331,6 +336,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             sok = d_sok[:, :, k][:, None, :]
             fc = d_fc[..., k]
             st, fl, why = dry_status(cov, vdc, fs, fc, meas, sok, bool(d_ratio[k]), options)
+            why = sampling_gap_note(why, st, cov, hours_p[None, None, :], "air")
             fails[..., j] = fl
             comp_note[..., j] = why
             c = np.fmin(np.fmin(cov, fc), vdc)

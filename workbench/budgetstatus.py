@@ -76,8 +76,149 @@ def join_notes(acc, text):
     return np.where(acc == "", text, acc + "; " + text).astype(object)
 
 
+#: The shortest stretch of a period without samples that a budget row notes [h]: a
+#: week, the usual sample (our choice; a weekly sample across the edge of the record's
+#: first year leaves less).
+SAMPLING_GAP_NOTE_H = 168.0
+
+
+def sampling_gap_note(note, status, coverage, hours, role):
+    """Add to a component's note the hours of its period without a usable sample.
+
+    A gap within the completeness thresholds keeps a component ``complete`` (the covered
+    weeks stand for the period): the note says it where the number is read, e.g. ``air:
+    10 weeks without a usable sample (80.8 % of the period's hours covered)``.  Written
+    for a component that is not ``missing`` with at least :data:`SAMPLING_GAP_NOTE_H`
+    hours of its period not covered: no sample (a sampler out of service) or only
+    samples left out (a lost sample; input_rows.csv says why).  The coverage is the
+    budget's own (``air_coverage``; ``wet_coverage_fraction``, where dry and trace weeks
+    count as covered).
+
+    Parameters
+    ----------
+    note, status : ndarray of str
+        The component's note and status (any shape, the period axis among them).
+    coverage : ndarray
+        Share of the period's hours covered [1] (NaN: not applicable), as `note`.
+    hours : ndarray
+        Hours of the periods [h], broadcastable to `coverage`.
+    role : str
+        ``air`` or ``precipitation``: the word the note opens with.
+
+    Returns
+    -------
+    ndarray of str
+    """
+    cov = np.asarray(coverage, float)
+    note = np.array(np.broadcast_to(np.asarray(note, dtype=object), cov.shape))
+    gap = (1.0 - cov) * np.broadcast_to(np.asarray(hours, float), cov.shape)      # [h]
+    show = np.flatnonzero((np.isfinite(cov) & (cov > 0) & (status != "missing")
+                           & (gap >= SAMPLING_GAP_NOTE_H - 1e-6)).ravel())
+    flat, flat_gap, flat_cov = note.reshape(-1), gap.reshape(-1), cov.reshape(-1)
+    for i in show:                           # the few rows with a gap: their words
+        w = round(float(flat_gap[i]) / 168.0, 1)
+        text = (f"{role}: {w:g} week{'' if w == 1 else 's'} without a usable sample "
+                f"({100 * flat_cov[i]:.1f} % of the period's hours covered)")
+        flat[i] = text if not flat[i] else flat[i] + "; " + text
+    return flat.reshape(cov.shape)
+
+
+def wet_mean_status(w, name, w_status, fallback=False):
+    """The status rule of one wet mean: of a budget wet component (:func:`wet_component`)
+    and of each mean of precipitation_annual.csv
+    (:func:`workbench.analysis.outputs.ion_status`), written once.
+
+    The period's status of the wet chain; ``flagged`` where a non-sea-salt mean fell
+    back to the total ion or was clipped at 0 (a complete or filled period only), and
+    where the ion itself (and, for a non-sea-salt mean, its sea-salt tracer, whose PWM
+    is part of it) was valid for less than ``min_valid_precip_fraction`` of the
+    precipitation (another ion may have carried the period's completeness; equal to
+    the minimum, to rounding, passes); ``missing`` where the mean has no value.
+
+    Parameters
+    ----------
+    w : xarray.Dataset
+        Wet deposition on (site, period).
+    name : str
+        The mean as named in ``dep_<name>``: ``SO4``, ``nssSO4``, ``H``...
+    w_status : ndarray of str (site, period)
+        Period status of the wet chain (NaN already read as ``missing``).
+    fallback : bool
+        The non-sea-salt basis was asked for but `w` has no ``dep_nss<ion>``: `name`
+        is the total ion, flagged everywhere it is present (sea salt included).
+
+    Returns
+    -------
+    status : ndarray of str (site, period)
+    low : ndarray of bool
+        The ion (or tracer) valid for too small a share of the precipitation: a
+        completeness failure.
+    notes : list of (ndarray of bool, str or ndarray of str)
+        In order, where each reason holds and its words (:func:`wet_component` joins
+        them into the budget's ``note``).
+    share : ndarray (site, period) [1]
+        The smallest share of the period's precipitation with a valid value of the
+        ion(s); 1 in a period without rain at a site that measures them, NaN without a
+        gauge depth or where the mean has no value in a period without rain.
+    gone : ndarray of bool
+        The mean has no value in a period the wet chain does not call ``missing``.
+    """
+    dims = ("site", "period")
+    v = w.variables
+    tracer = w.attrs.get("seasalt_tracer", "Na")
+    ion = name.removeprefix("nss")
+    status = np.asarray(w_status, dtype=object).copy()
+    shape = status.shape
+    notes = []
+    soft = np.zeros(shape, bool)          # flagged for a reason other than completeness
+    if fallback:
+        soft[:] = True
+        notes.append((soft.copy(), f"no {tracer} measured: total {ion} used in place of "
+                      f"non-sea-salt {ion} (sea salt included)"))
+    elif name != ion:
+        for var, text in ((f"{name}_total_used", f"no {tracer} at the site in the period: "
+                           f"total {ion} used in place of non-sea-salt {ion} (sea salt "
+                           "included)"),
+                          (f"{name}_clipped", f"sea-salt {ion} from {tracer} exceeds the "
+                           f"measured {ion}: non-sea-salt {ion} clipped at 0")):
+            if var in v:
+                hit = w[var].transpose(*dims).values.astype(bool)
+                soft |= hit
+                notes.append((hit, text))
+    status = np.where(soft & np.isin(status, ("complete", "filled")), "flagged", status)
+    precip = (w["precipitation"].transpose(*dims).values if "precipitation" in v
+              else np.full(shape, np.nan))
+    need = json.loads(w.attrs.get("wet_options", "{}")).get("min_valid_precip_fraction", 0.7)
+    have = list(w["ion"].values) if "ion" in w.coords else []
+    share = np.full(shape, np.inf)
+    low = np.zeros(shape, bool)
+    for i in [ion] + ([tracer] if name != ion else []):
+        if "ion_valid_precip_fraction" not in v or i not in have:
+            continue
+        frac = w["ion_valid_precip_fraction"].sel(ion=i).transpose(*dims).values
+        # equal to the minimum (to rounding) passes, as the wet chain's own criteria
+        low_i = (np.isfinite(frac) & falls_short(frac, need) & (frac > 0)
+                 & (w_status != "missing"))
+        pct = np.round(100 * np.nan_to_num(frac), 1).astype(str)
+        notes.append((low_i, np.char.add(np.char.add(f"{i} valid for ", pct),
+                                         " % of the precipitation only")))
+        low |= low_i
+        share = np.fmin(share, np.where(precip > 0, frac, np.where(precip == 0, 1.0, np.nan)))
+    share = np.where(np.isinf(share), np.nan, share)
+    status = np.where(low, "flagged", status)
+    dep = (w[f"dep_{name}"].transpose(*dims).values.astype(float) if f"dep_{name}" in v
+           else np.full(shape, np.nan))
+    gone = ~np.isfinite(dep) & (status != "missing")
+    share = np.where(~np.isfinite(dep) & ~(precip > 0), np.nan, share)
+    status = np.where(~np.isfinite(dep), "missing", status).astype(object)
+    return status, low, notes, share, gone
+
+
 def wet_component(w, sp, options, w_status, w_fail):
     """Deposition, status, completeness failure and note of a wet component.
+
+    The status is :func:`wet_mean_status` of the component's mean (``nss<sp>`` on the
+    non-sea-salt basis); the note starts with the wet chain's completeness reasons.
 
     Parameters
     ----------
@@ -96,53 +237,20 @@ def wet_component(w, sp, options, w_status, w_fail):
     fails : ndarray of bool
     """
     v = w.variables
-    tracer = w.attrs.get("seasalt_tracer", "Na")
     nss = sp == "SO4" and options.sulfate_basis == "nss"
-    name = f"dep_nss{sp}" if nss and "dep_nssSO4" in v else f"dep_{sp}"
-    if name not in v:
+    name = f"nss{sp}" if nss and "dep_nssSO4" in v else sp
+    if f"dep_{name}" not in v:
         return None, None, None, None
-    d = v[name].values.astype(float)
+    d = v[f"dep_{name}"].values.astype(float)
     reasons = v["completeness_reasons"].values.astype(object) if "completeness_reasons" in v \
         else np.full(d.shape, "", object)
     reasons = np.where(pd.isna(reasons), "", reasons).astype(object)   # sites without samples
-    status = w_status.copy()
-    note = np.where(status != "complete", reasons, "").astype(object)
-    soft = np.zeros(d.shape, bool)          # flagged for a reason other than completeness
-    if nss and name == f"dep_{sp}":
-        soft[:] = True
-        note = join_notes(note, f"no {tracer} measured: total {sp} used in place of non-sea-salt "
-                     f"{sp} (sea salt included)")
-    elif nss:
-        for var, text in ((f"nss{sp}_total_used", f"no {tracer} at the site in the period: "
-                           f"total {sp} used in place of non-sea-salt {sp} (sea salt included)"),
-                          (f"nss{sp}_clipped", f"sea-salt {sp} from {tracer} exceeds the "
-                           f"measured {sp}: non-sea-salt {sp} clipped at 0")):
-            if var in v:
-                hit = v[var].values.astype(bool)
-                soft |= hit
-                note = np.where(hit, join_notes(note, text), note)
-    status = np.where(soft & np.isin(status, ("complete", "filled")), "flagged", status)
-    # the ion itself measured in too small a share of the precipitation (another ion
-    # may have carried the period's completeness): a completeness failure; on the nss
-    # basis the same for the sea-salt tracer, whose PWM is part of the component
-    low_ion = np.zeros(d.shape, bool)
-    ions = [sp] + ([tracer] if nss and name == f"dep_nss{sp}" else [])
-    for ion in ions:
-        if "ion_valid_precip_fraction" not in v or ion not in list(w["ion"].values):
-            continue
-        frac = w["ion_valid_precip_fraction"].sel(ion=ion).transpose("site", "period").values
-        need = json.loads(w.attrs.get("wet_options", "{}")).get("min_valid_precip_fraction", 0.7)
-        # equal to the minimum (to rounding) passes, as the wet chain's own criteria
-        low = (np.isfinite(frac) & falls_short(frac, need) & (frac > 0)
-               & (w_status != "missing"))
-        pct = np.round(100 * np.nan_to_num(frac), 1).astype(str)
-        note = np.where(low, join_notes(note, np.char.add(np.char.add(
-            f"{ion} valid for ", pct), " % of the precipitation only")), note)
-        low_ion |= low
-    status = np.where(low_ion, "flagged", status)
+    note = np.where(w_status != "complete", reasons, "").astype(object)
+    status, low_ion, notes, _, gone = wet_mean_status(w, name, w_status,
+                                                      fallback=nss and name == sp)
+    for hit, text in notes:
+        note = np.where(hit, join_notes(note, text), note)
     precip = v["precipitation"].values if "precipitation" in v else np.full(d.shape, np.nan)
-    gone = ~np.isfinite(d) & (status != "missing")
-    status = np.where(gone, "missing", status).astype(object)
     note = np.where(gone, join_notes(note, f"no valid {sp} value in the period's samples" if
                                  np.all(np.isfinite(precip[gone])) else
                                  "no precipitation depth"), note)

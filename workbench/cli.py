@@ -421,8 +421,10 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--block-sites", type=_positive, default=None, metavar="K",
                    # blocks.DEFAULT_MAX_BLOCK and AUTO_BLOCK_SITES (not imported here:
                    # the parser stays light; tests/test_cli.py holds the text to them)
-                   help="sites per block (default 4; fewer for a long record, at most "
-                   "20 site-years a block; a network of more than 20 sites is "
+                   help="sites per block, in this process and on the workers of "
+                   "--workers or --scheduler alike (default 4; fewer for a long record, "
+                   "at most 20 site-years a block, and on workers at most an even share "
+                   "of two blocks per worker; a network of more than 20 sites is "
                    "computed in blocks without this option); in block mode velocities.nc "
                    "is not written")
     r.set_defaults(func=cmd_run)

@@ -187,6 +187,7 @@ def species_rows(o, inputs, fill, times):
     r["conc"] = conc
     r["quantity"] = quantity
     r["censored"] = cens                 # below detection (value substituted)
+    r["air_row"] = inputs[0]             # row of each in the air Dataset (its identity)
     return r, notes
 
 

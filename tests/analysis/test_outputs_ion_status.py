@@ -103,3 +103,25 @@ def test_the_written_file_keeps_its_columns_and_adds_each_ions(analysis_run):
     for sp in ("NO3", "NH4"):
         rows = m[m["species"] == sp]
         assert (rows["status_x"] == rows[f"pwm_{sp}_status"]).all(), sp
+
+
+def test_one_function_holds_the_rule_for_both(monkeypatch):
+    """precipitation_annual.csv's per-ion status and the budget's wet rows call the same
+    function (workbench.budgetstatus.wet_mean_status): the rule is written once, and
+    both follow a change of it."""
+    import workbench.budgetstatus as bs
+    wet = _wet()
+    calls = []
+    real = bs.wet_mean_status
+
+    def spy(w, name, w_status, fallback=False):
+        calls.append(name)
+        st, low, notes, share, gone = real(w, name, w_status, fallback)
+        return np.where(st == "complete", "changed", st).astype(object), low, notes, share, gone
+    monkeypatch.setattr(bs, "wet_mean_status", spy)
+    assert ion_status(wet, "nssSO4")[0][0, 1] == "changed"        # site A, its dry week
+    w_status = wet["status"].values.astype(object)
+    st, _, _, _ = wet_component(wet, "SO4", BudgetOptions(sulfate_basis="nss"), w_status,
+                                wet["completeness_failed"].values)
+    assert st[0, 1] == "changed"
+    assert calls == ["nssSO4", "nssSO4"]

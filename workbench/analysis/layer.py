@@ -46,6 +46,8 @@ class DryPieces:
     #: budget's reckoning (:func:`workbench.drycomponents.row_filled_hours`)
     row_id: np.ndarray       #: (n,) int, row number within the component's rows (stable
     #: per site; under pair_split the moved-into species' rows are both members')
+    ident: list              #: (n,) the identity of each row's sample: (member species,
+    #: sampler id, start [ns since 1970], occurrence), see :func:`sample_identity`
 
 
 @dataclass
@@ -59,6 +61,8 @@ class WetPieces:
     valid: dict              #: ion -> (m,) bool, used sample with a value
     censored: dict           #: ion -> (m,) bool, below detection
     n_samples: int
+    ident: list              #: (n_samples,) the identity of each sample: (sampler id,
+    #: start [ns since 1970], occurrence), see :func:`sample_identity`
 
 
 @dataclass
@@ -94,6 +98,35 @@ class LinearLayer:
     tracer: str = "Na"
 
 
+def sample_identity(sampler, start, species=None) -> list:
+    """What names a sample, whatever run it is in: its sampler id and start time.
+
+    Parameters
+    ----------
+    sampler : ndarray of str (n,)
+        ``sampler_id`` of each sample ("" where the file gives none).
+    start : ndarray of datetime64 (n,)
+        Start of each sample.
+    species : ndarray of str (n,), optional
+        The species of an air sample's value (put first in its identity).
+
+    Returns
+    -------
+    list of tuple
+        ``([species,] sampler, start [ns since 1970], occurrence)``, occurrence
+        counting the samples with the same species, sampler and start in the order
+        given (0 but for duplicates), so that no two samples of a site share an
+        identity.  The site id is not in it: a site's streams are named by it already.
+    """
+    sampler = np.asarray(sampler).astype(str)
+    ns = np.asarray(start, dtype="datetime64[ns]").astype(np.int64)
+    sp = np.full(len(ns), "") if species is None else np.asarray(species).astype(str)
+    occ = pd.DataFrame({"k": sp, "s": sampler, "t": ns}).groupby(
+        ["k", "s", "t"], sort=False).cumcount().to_numpy()
+    return [((k,) if species is not None else ()) + (s, int(t), int(o))
+            for k, s, t, o in zip(sp, sampler, ns, occ)]
+
+
 def period_years(periods: pd.DataFrame) -> np.ndarray:
     """Year of each period [int]: its ``year`` column, else the year it starts."""
     year = periods["year"].to_numpy()
@@ -101,7 +134,7 @@ def period_years(periods: pd.DataFrame) -> np.ndarray:
     return np.where(year > 0, year, start).astype(int)
 
 
-def _dry_layers(rows, periods, sites, n_r):
+def _dry_layers(rows, periods, sites, n_r, air):
     from ..drycomponents import row_filled_hours
     from ..drypairs import component_rows
     from ..dryflux import period_axes, share_to_periods
@@ -120,8 +153,9 @@ def _dry_layers(rows, periods, sites, n_r):
         if not parts:
             continue
         _, c_fill = rows["vd_cum"][sp]          # the Vd of `sp` in every part
-        per_row, si, filled, cens = [], [], [], []
-        for _, r, factor in parts:
+        per_row, si, filled, cens, member, sampler, start = [], [], [], [], [], [], []
+        samplers = air["sampler_id"].values.astype(str)
+        for name, r, factor in parts:
             *_, pr = share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"],
                                       r["cs"], len(row_sites), axes, times, r["start"],
                                       r["end"], per_row=True, cn=r.get("cn"))
@@ -134,8 +168,15 @@ def _dry_layers(rows, periods, sites, n_r):
                                               r.get("cn"))
             filled.append(imputed / np.maximum(hours, 1.0)[:, :, None])
             cens.append(np.asarray(r.get("censored", np.zeros(len(a), bool)), bool))
+            # the sample behind each row: the member species (a bracket's rows are
+            # both members'), its sampler and start
+            member.append(np.full(len(a), name if isinstance(name, str) else name[-1]))
+            sampler.append(samplers[r["air_row"]])
+            start.append(np.asarray(r["start"]))
         per_row, si = np.concatenate(per_row), np.concatenate(si)
         filled, cens = np.concatenate(filled), np.concatenate(cens)
+        member, sampler = np.concatenate(member), np.concatenate(sampler)
+        start = np.concatenate(start)
         for k, s in enumerate(sites):
             if s not in row_sites:
                 continue
@@ -144,7 +185,8 @@ def _dry_layers(rows, periods, sites, n_r):
                                  & (per_row != 0).any(axis=(1, 2)))
             if not len(sel):
                 continue
-            out[k][sp] = DryPieces(per_row[sel][:, :, :n_r], cens[sel], filled[sel], sel)
+            out[k][sp] = DryPieces(per_row[sel][:, :, :n_r], cens[sel], filled[sel], sel,
+                                   sample_identity(sampler[sel], start[sel], member[sel]))
     return out
 
 
@@ -182,8 +224,11 @@ def _wet_layers(screened, wet, periods, wet_options, met, sites, ions):
             cn = f"{ion}_censored"
             cens[ion] = (np.asarray(screened.variables[cn].values, bool)[i[sel]]
                          if cn in screened else np.zeros(len(sel), bool))
+        ident = sample_identity(screened.variables["sampler_id"].values[local]
+                                if "sampler_id" in screened.variables else np.full(len(local), ""),
+                                screened.variables["start"].values[local])
         out[k] = WetPieces(inverse, p[sel], np.where(np.isfinite(weight[sel]), weight[sel], 0.0),
-                           conc, valid, cens, len(local))
+                           conc, valid, cens, len(local), ident)
     return out, fills, pwms
 
 
@@ -219,7 +264,7 @@ def linear_layer(result, study, which: str = "budget", overrides=None) -> Linear
     rows = study.dry_rows(dry_opt, bud_opt, opts.get("fixed_velocity"), overrides, receptors)
     if rows is not None and list(rows["receptors"]) != list(ds["receptor"].values):
         raise ValueError("the dry rows' receptors differ from the budget's")
-    dry = _dry_layers(rows, periods, sites, ds.sizes["receptor"])
+    dry = _dry_layers(rows, periods, sites, ds.sizes["receptor"], study.inputs.air)
     wet = study.wet(wet_opt, periods) if result.screened is not None else None
     tracer = wet_opt.seasalt_tracer
     nss = (bud_opt.sulfate_basis == "nss" and wet is not None and "dep_nssSO4" in wet)

@@ -10,7 +10,6 @@ analysis adds its file here, so that the run-folder code calls one function.
 """
 from __future__ import annotations
 
-import json
 from pathlib import Path
 
 import numpy as np
@@ -72,10 +71,10 @@ def write_analysis(result, study, scenario, out, atomic_write) -> dict:
 def ion_status(wet, name):
     """Status and valid share of one precipitation-weighted mean of the wet chain.
 
-    The rule of the budget's wet components (:func:`workbench.budgetstatus.wet_component`):
-    the period's status, ``flagged`` where the ion itself was valid for less than
-    ``min_valid_precip_fraction`` of the rain (another ion may have carried the period),
-    where non-sea-salt sulfate etc. fell back to the total ion or was clipped at 0, and
+    The rule of the budget's wet components, written once in
+    :func:`workbench.budgetstatus.wet_mean_status`: the period's status, ``flagged``
+    where the ion itself was valid for less than ``min_valid_precip_fraction`` of the
+    rain (another ion may have carried the period), where non-sea-salt sulfate etc. fell back to the total ion or was clipped at 0, and
     ``missing`` where the ion has no value (no valid value in the period's samples, or
     never measured at the site).  A non-sea-salt mean counts the valid share of the ion
     and of the sea-salt tracer, and reports the smaller one.
@@ -96,36 +95,11 @@ def ion_status(wet, name):
         ``valid_precip_fraction``); NaN without a gauge depth, and in a period without
         rain at a site that never measured the ion.
     """
-    from ..wet.qa import falls_short
-    v = wet.variables
-    dims = ("site", "period")
-    status = wet["status"].transpose(*dims).values.astype(object)
+    from ..budgetstatus import wet_mean_status
+    status = wet["status"].transpose("site", "period").values.astype(object)
     status = np.where(pd.isna(status), "missing", status).astype(object)
-    precip = wet["precipitation"].transpose(*dims).values
-    need = json.loads(wet.attrs.get("wet_options", "{}")).get("min_valid_precip_fraction", 0.7)
-    ion = name.removeprefix("nss")
-    ions = [ion] + ([wet.attrs.get("seasalt_tracer", "Na")] if name != ion else [])
-    have = list(wet["ion"].values) if "ion" in wet.coords else []
-    share = np.full(status.shape, np.inf)
-    low = np.zeros(status.shape, bool)
-    for i in ions:
-        if i not in have:
-            continue
-        frac = wet["ion_valid_precip_fraction"].sel(ion=i).transpose(*dims).values
-        # equal to the minimum (to rounding) passes, as in the budget
-        low |= np.isfinite(frac) & falls_short(frac, need) & (frac > 0) & (status != "missing")
-        share = np.fmin(share, np.where(precip > 0, frac, np.where(precip == 0, 1.0, np.nan)))
-    share = np.where(np.isinf(share), np.nan, share)
-    soft = np.zeros(status.shape, bool)
-    for flag in (f"{name}_total_used", f"{name}_clipped"):
-        if flag in v:
-            soft |= wet[flag].transpose(*dims).values.astype(bool)
-    status = np.where((soft & np.isin(status, ("complete", "filled"))) | low, "flagged", status)
-    dep = (wet[f"dep_{name}"].transpose(*dims).values if f"dep_{name}" in v
-           else np.full(status.shape, np.nan))
-    gone = ~np.isfinite(dep)
-    share = np.where(gone & ~(precip > 0), np.nan, share)
-    return np.where(gone, "missing", status).astype(object), share
+    status, _, _, share, _ = wet_mean_status(wet, name, status)
+    return status, share
 
 
 def precipitation_annual(wet):

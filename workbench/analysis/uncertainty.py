@@ -42,6 +42,9 @@ import xarray as xr
 from ..budget import COMPONENTS, OXIDIZED_N, REDUCED_N
 from ..units import element_deposition_in
 from .layer import DRY_SPECIES, LinearLayer, linear_layer
+# the factors of the draws, named by what they draw for (site, year, sample)
+from .noise import (SAMPLE_STREAM, YEAR_STREAM, SiteNoise, _normal_factor,  # noqa: F401
+                    _stream_key, keyed_normal_factor, site_noise)
 from .quantile_tables import (QUANTILES, SUFFIXES, TOTALS, quantile_table,  # noqa: F401
                               report_section, summary_dataset)
 
@@ -144,112 +147,6 @@ class UncertaintyOptions:
 
     def gsd(self, species: str) -> float:
         return float(self.vd_gsd.get(species, 1.0))
-
-
-# ------------------------------------------------------------------------------ noise
-
-@dataclass
-class SiteNoise:
-    """The factors of the draws at one site (arrays with the draws first).
-
-    ``vd`` (D, Y, K) log-normal Vd factors [1] per year offset and dry species;
-    ``gauge`` (D, Y) gauge catch [1]; ``depth`` (D, n_samples); ``pconc`` ion ->
-    (D, n_samples) and ``air`` species -> (D, n_rows) multiplicative errors of one
-    sample [1] (below detection: their own spread); ``vd_fill`` species -> (D, n_rows)
-    relative errors of a filled Vd; ``pwm_fill`` ion -> (D, P) factors of a filled PWM.
-    Every factor is 1 (0 for ``vd_fill``) where its spread is 0.
-    """
-
-    vd: np.ndarray
-    gauge: np.ndarray
-    depth: np.ndarray | None
-    pconc: dict
-    air: dict
-    vd_fill: dict
-    pwm_fill: dict
-
-
-def _normal_factor(rng, sd, shape):
-    """1 + sd z, cut at 0 (a concentration or a depth cannot be negative) [1]."""
-    sd = np.asarray(sd, float)
-    if not np.any(sd > 0):
-        rng.standard_normal(shape)                     # the stream stays the same
-        return np.ones(shape)
-    return np.maximum(1.0 + sd * rng.standard_normal(shape), 0.0)
-
-
-def _stream_key(seed_key) -> list:
-    """Entropy of a random stream from ``(seed, site, ...)``: integers as they are, a
-    site id (text) by its length and UTF-8 bytes, so that a stream is named by the
-    site itself, not by its place in a run."""
-    out = []
-    for part in seed_key:
-        if isinstance(part, str):
-            b = part.encode("utf-8")
-            out.extend([len(b), *b])
-        else:
-            out.append(int(part))
-    return out
-
-
-def site_noise(layer_site, opt: UncertaintyOptions, n_draws: int, n_years: int, n_periods: int,
-               seed_key, year0: int = 0) -> SiteNoise:
-    """Draw the factors of one site (the same for any resolution of the same run).
-
-    Parameters
-    ----------
-    layer_site : SiteLayer
-    opt : UncertaintyOptions
-    n_draws, n_years, n_periods : int
-        Draws; calendar years ``year0 .. year0 + n_years - 1``; reporting periods.
-    seed_key : tuple
-        ``(seed, site id)``: each site has its own streams, named by its id, so that a
-        site's numbers depend neither on the other sites nor on its place in the run.
-    year0 : int
-        The first calendar year.  The systematic factors of a site-year (Vd, gauge
-        catch) come from a stream of their own per calendar year, so that they do not
-        depend on the years the run spans; the random errors of the samples do depend
-        on the samples in the run.
-    """
-    key = _stream_key(seed_key)
-    d = n_draws
-    k = len(DRY_SPECIES)
-    z_shared = np.empty((d, n_years, 1))
-    z_own = np.empty((d, n_years, k))
-    gauge = np.empty((d, n_years))
-    for y in range(n_years):                 # a few years: one stream per calendar year
-        rng_y = np.random.default_rng(key + [2, int(year0) + y])
-        z_shared[:, y] = rng_y.standard_normal((d, 1))
-        z_own[:, y] = rng_y.standard_normal((d, k))
-        gauge[:, y] = _normal_factor(rng_y, opt.gauge_catch_rel_sd, (d,))
-    ln_gsd = np.log([opt.gsd(sp) for sp in DRY_SPECIES])
-    rho = opt.vd_shared_fraction
-    vd = np.exp(ln_gsd * (np.sqrt(rho) * z_shared + np.sqrt(1 - rho) * z_own))
-    rng = np.random.default_rng(key)
-    wet = layer_site.wet
-    depth, pconc, pwm_fill = None, {}, {}
-    n_s = wet.n_samples if wet is not None else 0
-    depth = _normal_factor(rng, opt.depth_rel_sd, (d, n_s))
-    if wet is not None:
-        for ion in sorted(wet.conc):
-            cens = np.zeros(n_s, bool)
-            cens[wet.sample[wet.censored[ion]]] = True
-            sd = np.where(cens, opt.censored_rel_sd, opt.precip_conc_rel_sd)
-            pconc[ion] = _normal_factor(rng, sd, (d, n_s))
-    air, vd_fill = {}, {}
-    for sp in DRY_SPECIES:
-        if sp not in layer_site.dry:
-            continue
-        rows = layer_site.dry[sp]
-        sd = np.where(rows.censored, opt.censored_rel_sd, opt.air_rel_sd)
-        air[sp] = _normal_factor(rng, sd, (d, len(rows.censored)))
-        vd_fill[sp] = _normal_factor(rng, opt.vd_fill_rel_sd, (d, len(rows.censored))) - 1.0
-    # the filled PWMs per reporting period: a stream of their own, so that the
-    # factors above are the same for every resolution of the same run
-    rng_fill = np.random.default_rng(key + [1])
-    for ion in sorted(layer_site.pwm):
-        pwm_fill[ion] = _normal_factor(rng_fill, opt.pwm_fill_rel_sd, (d, n_periods))
-    return SiteNoise(vd, gauge, depth, pconc, air, vd_fill, pwm_fill)
 
 
 # ------------------------------------------------------------------------------ draws
@@ -508,7 +405,8 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
                  for name in TOTALS + ("oxidized_N", "reduced_N", "potential_acidity")}
         for k in range(n_s):
             noise = site_noise(lay.sites[k], options, options.draws, n_years, n_p,
-                               (options.seed, str(ds["site"].values[k])), year0)
+                               (options.seed, str(ds["site"].values[k])), year0,
+                               (ds["period_start"].values, ds["period_end"].values))
             comp = component_draws(lay, k, noise, year0)
             tot = totals_of(comp)
             comp_q[:, k] = np.quantile(comp, q, axis=0)

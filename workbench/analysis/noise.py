@@ -1,0 +1,177 @@
+"""The random factors of the Monte Carlo (:mod:`.uncertainty`), drawn per site.
+
+Every stream is named by what it draws for, never by a place in a run: a site's
+streams by ``(seed, site id)``; the systematic factors of a site-year (Vd, gauge catch)
+by the calendar year; the random errors of a sample (depth, analyses, gap-filled Vd)
+by the sample's identity (sampler id, start: :func:`.layer.sample_identity`) and what
+they are of; a filled PWM's error by its period's bounds.  So a site, a site-year and a
+sample draw the same numbers in every run that holds them (docs/methods_uncertainty.md).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .layer import DRY_SPECIES
+
+
+@dataclass
+class SiteNoise:
+    """The factors of the draws at one site (arrays with the draws first).
+
+    ``vd`` (D, Y, K) log-normal Vd factors [1] per year offset and dry species;
+    ``gauge`` (D, Y) gauge catch [1]; ``depth`` (D, n_samples); ``pconc`` ion ->
+    (D, n_samples) and ``air`` species -> (D, n_rows) multiplicative errors of one
+    sample [1] (below detection: their own spread); ``vd_fill`` species -> (D, n_rows)
+    relative errors of a filled Vd; ``pwm_fill`` ion -> (D, P) factors of a filled PWM.
+    Every factor is 1 (0 for ``vd_fill``) where its spread is 0.
+    """
+
+    vd: np.ndarray
+    gauge: np.ndarray
+    depth: np.ndarray | None
+    pconc: dict
+    air: dict
+    vd_fill: dict
+    pwm_fill: dict
+
+
+def _normal_factor(rng, sd, shape):
+    """1 + sd z, cut at 0 (a concentration or a depth cannot be negative) [1]."""
+    sd = np.asarray(sd, float)
+    if not np.any(sd > 0):
+        rng.standard_normal(shape)                     # the stream stays the same
+        return np.ones(shape)
+    return np.maximum(1.0 + sd * rng.standard_normal(shape), 0.0)
+
+
+def _stream_key(seed_key) -> list:
+    """Entropy of a random stream from ``(seed, site, ...)``: integers as they are (a
+    negative one, e.g. a time before 1970, shifted by 2**64), a text (site id, sampler
+    id, species) by its length and UTF-8 bytes, so that a stream is named by what it
+    draws for, not by its place in a run."""
+    out = []
+    for part in seed_key:
+        if isinstance(part, str):
+            b = part.encode("utf-8")
+            out.extend([len(b), *b])
+        else:
+            out.append(int(part) % 2 ** 64)
+    return out
+
+
+#: Tags after a site's key: the streams of a calendar year's systematic factors, and
+#: of a sample's (or a period's) random errors.
+YEAR_STREAM, SAMPLE_STREAM = 2, 3
+
+
+def keyed_normal_factor(key, what, idents, sd, n_draws, shift=1.0):
+    """Factors ``shift + sd z`` cut at 0, one column per sample, each from the stream
+    named by the site's key, `what` and the sample's identity.
+
+    Parameters
+    ----------
+    key : list of int
+        The site's stream key (:func:`_stream_key` of ``(seed, site id)``).
+    what : str
+        What the error is of (``depth``, ``precip:SO4``, ``air:pNH4``,
+        ``vd_fill:NH3:pNH4``, ``pwm_fill:SO4``).
+    idents : sequence of tuple
+        The identity of each sample (:func:`workbench.analysis.layer.sample_identity`)
+        or period ((start, end) [ns since 1970]).
+    sd : float or ndarray (n,)
+        Relative standard deviation of each [1]; 0 draws nothing (factor `shift`).
+    n_draws : int
+
+    Returns
+    -------
+    ndarray (n_draws, n) [1]
+        A sample's column is the same in every run that holds the sample, whatever
+        other samples the run holds (the draws of a sample do not depend on its place).
+    """
+    sd = np.broadcast_to(np.asarray(sd, float), (len(idents),))
+    out = np.full((n_draws, len(idents)), float(shift))
+    base = key + [SAMPLE_STREAM] + _stream_key((what,))
+    # one stream per sample: creating a stream costs about 20 us, the draws the rest
+    for j in np.flatnonzero(sd > 0):
+        z = np.random.default_rng(base + _stream_key(idents[j])).standard_normal(n_draws)
+        out[:, j] = np.maximum(shift + sd[j] * z, 0.0)
+    return out
+
+
+def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
+               seed_key, year0: int = 0, period_bounds=None) -> SiteNoise:
+    """Draw the factors of one site (the same for any resolution of the same run).
+
+    Parameters
+    ----------
+    layer_site : SiteLayer
+    opt : workbench.analysis.uncertainty.UncertaintyOptions
+    n_draws, n_years, n_periods : int
+        Draws; calendar years ``year0 .. year0 + n_years - 1``; reporting periods.
+    seed_key : tuple
+        ``(seed, site id)``: each site has its own streams, named by its id, so that a
+        site's numbers depend neither on the other sites nor on its place in the run.
+    year0 : int
+        The first calendar year.  The systematic factors of a site-year (Vd, gauge
+        catch) come from a stream of their own per calendar year, so that they do not
+        depend on the years the run spans.
+    period_bounds : tuple of ndarray, optional
+        (start, end) of the reporting periods (datetime64); the error of a filled PWM
+        is named by its period's bounds (by the period's place when not given).
+
+    Notes
+    -----
+    The random errors of the samples (depth, analyses, gap-filled Vd) come from a
+    stream per sample and quantity, named by the site's key and the sample's identity
+    (sampler id, start, :func:`workbench.analysis.layer.sample_identity`): a sample
+    draws the same errors in a run of 2016-2023 as in one of 2019-2021, and in a run
+    whose input files hold only those years.
+    """
+    key = _stream_key(seed_key)
+    d = n_draws
+    k = len(DRY_SPECIES)
+    z_shared = np.empty((d, n_years, 1))
+    z_own = np.empty((d, n_years, k))
+    gauge = np.empty((d, n_years))
+    for y in range(n_years):                 # a few years: one stream per calendar year
+        rng_y = np.random.default_rng(key + [YEAR_STREAM, int(year0) + y])
+        z_shared[:, y] = rng_y.standard_normal((d, 1))
+        z_own[:, y] = rng_y.standard_normal((d, k))
+        gauge[:, y] = _normal_factor(rng_y, opt.gauge_catch_rel_sd, (d,))
+    ln_gsd = np.log([opt.gsd(sp) for sp in DRY_SPECIES])
+    rho = opt.vd_shared_fraction
+    vd = np.exp(ln_gsd * (np.sqrt(rho) * z_shared + np.sqrt(1 - rho) * z_own))
+    wet = layer_site.wet
+    depth, pconc, pwm_fill = None, {}, {}
+    idents = wet.ident if wet is not None else []
+    depth = keyed_normal_factor(key, "depth", idents, opt.depth_rel_sd, d)
+    if wet is not None:
+        for ion in sorted(wet.conc):
+            cens = np.zeros(wet.n_samples, bool)
+            cens[wet.sample[wet.censored[ion]]] = True
+            sd = np.where(cens, opt.censored_rel_sd, opt.precip_conc_rel_sd)
+            pconc[ion] = keyed_normal_factor(key, f"precip:{ion}", idents, sd, d)
+    air, vd_fill = {}, {}
+    for sp in DRY_SPECIES:
+        if sp not in layer_site.dry:
+            continue
+        rows = layer_site.dry[sp]
+        sd = np.where(rows.censored, opt.censored_rel_sd, opt.air_rel_sd)
+        # an air sample's analytical error is of its own species (a bracket member's
+        # rows in the species a pair is moved into keep their error)
+        air[sp] = keyed_normal_factor(key, "air", rows.ident, sd, d)
+        # a fill error acts on the hours not modelled only: none drawn without them
+        sd_fill = np.where((rows.filled > 0).any(axis=(1, 2)), opt.vd_fill_rel_sd, 0.0)
+        vd_fill[sp] = keyed_normal_factor(key, f"vd_fill:{sp}", rows.ident, sd_fill, d) - 1.0
+    # the filled PWMs per reporting period, named by the period's bounds
+    if period_bounds is None:
+        bounds = [(p, p) for p in range(n_periods)]
+    else:
+        t0, t1 = (np.asarray(b, dtype="datetime64[ns]").astype(np.int64) for b in period_bounds)
+        bounds = list(zip(t0.tolist(), t1.tolist()))
+    for ion in sorted(layer_site.pwm):
+        pwm_fill[ion] = keyed_normal_factor(key, f"pwm_fill:{ion}", bounds,
+                                            opt.pwm_fill_rel_sd, d)
+    return SiteNoise(vd, gauge, depth, pconc, air, vd_fill, pwm_fill)
