@@ -307,3 +307,41 @@ def test_flagged_total_lacking_a_component_is_not_ranked_as_full():
     per = span.assign(receptor="moorland", period="2022")
     html = _pivot_html(per)
     assert "<td>12.0 f p</td>" in html and "<td>9.00 f</td>" in html and "<td>10.0</td>" in html
+
+
+def _precip_with_gauge_rows(site, tmp_path, flag=""):
+    """The trial's weekly samples plus the daily gauge appended as sampler 'RG1'."""
+    p = pd.read_csv(site / "precipitation.csv")
+    days = pd.date_range("2022-03-02 09:00", periods=8, freq="D")
+    g = pd.DataFrame({"site": "corrow", "start": (days - pd.Timedelta("1D")).strftime("%Y-%m-%dT%H:%M"),
+                      "end": days.strftime("%Y-%m-%dT%H:%M"), "sampler_id": "RG1",
+                      "gauge_depth [mm]": [3.1, 0, 0, 5.2, 1.0, 0, 0, 3.1]})
+    if flag:
+        p["flags"] = ""
+        g["flags"] = flag
+    pd.concat([p, g]).to_csv(tmp_path / "p.csv", index=False)
+    return tmp_path / "p.csv"
+
+
+def test_daily_gauge_rows_as_a_sampler_are_refused(site, tmp_path):
+    """Before: the daily gauge appended under its own sampler_id was read as samples
+    without chemistry (excluded one by one), and the share of precipitation in kept
+    flagged samples fell by half without a word. Now an error at its first wet row."""
+    from workbench.io.samples import read_precipitation
+    from workbench.io.sites import read_sites
+    path = _precip_with_gauge_rows(site, tmp_path)
+    with pytest.raises(InputError) as e:
+        read_precipitation(path, read_sites(site / "sites.toml"))
+    msg = str(e.value)
+    assert "p.csv" in msg and "line 6" in msg and "column 'sampler_id'" in msg
+    assert "'RG1'" in msg and "a separate gauge record?" in msg and "'WO1'" in msg
+    assert "summed over the sample's period" in msg
+
+
+def test_unanalysed_samples_of_a_second_collector_are_read(site, tmp_path):
+    """Samples collected and not analysed carry a flag: read as before, not refused."""
+    from workbench.io.samples import read_precipitation
+    from workbench.io.sites import read_sites
+    ds, ledger = read_precipitation(_precip_with_gauge_rows(site, tmp_path, "not_analysed"),
+                                    read_sites(site / "sites.toml"))
+    assert (ds["sampler_id"].values == "RG1").sum() == 8

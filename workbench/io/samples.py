@@ -20,6 +20,7 @@ from ..units import Q_, convert_plain, to_amount
 from . import plausible as _plausible
 from .common import (check_intervals, check_overlaps, check_sites, check_time_zones,
                      duplicate_rows, join_reasons, unit_error)
+from .gaugerows import check_gauge_sampler
 from .ledger import Ledger
 from .samplerids import check_spellings, typo_notes
 from .shifted import check_shifted
@@ -341,6 +342,8 @@ def read_precipitation(path, catalogue, flag_map=None):
     has_chem = np.zeros(n, bool)
     for v, c, _, _ in conc.values():
         has_chem |= ~np.isnan(v) | c
+    check_gauge_sampler(tab, sites, samplers, gauge, has_chem | ~np.isnan(ph) | ~np.isnan(cond),
+                        flag_norm, rows=~repeat)
     empty = np.isnan(gauge) & np.isnan(sample) & ~has_chem & np.isnan(ph)
     reasons = join_reasons(parts)
     reasons = np.where(empty, join_reasons([reasons, np.full(n, "no values in the row", object)]),
