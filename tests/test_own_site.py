@@ -345,3 +345,25 @@ def test_unanalysed_samples_of_a_second_collector_are_read(site, tmp_path):
     ds, ledger = read_precipitation(_precip_with_gauge_rows(site, tmp_path, "not_analysed"),
                                     read_sites(site / "sites.toml"))
     assert (ds["sampler_id"].values == "RG1").sum() == 8
+
+
+@pytest.mark.parametrize("header, hint", [
+    ("pressure [mb]", "write 'mbar' or 'hPa' (pint reads 'mb' as millibarn, an area)"),
+    ("temperature [deg C]", "write 'degC'"),
+    ("temperature [C]", "write 'degC' (pint reads 'C' as coulomb)"),
+    ("wind_speed [kmh]", "write 'km/h'"),
+    ("relative_humidity [%RH]", "write '%'"),
+    ("precipitation [mm/h]", "write 'mm' (the hour's total)")])
+def test_logger_unit_spellings_get_the_spelling_to_write(site, tmp_path, header, hint):
+    """A logger's unit spellings that pint reads as another unit (mb: millibarn, C:
+    coulomb) or not at all. Before: the dimension error alone ('unit 'mb' has dimension
+    [length] ** 2'), puzzling to a meteorologist."""
+    from workbench.io.met import read_met
+    from workbench.io.sites import read_sites
+    m = pd.read_csv(site / "met.csv").head(48)
+    name = header.split(" [")[0]
+    m = m.rename(columns={c: header for c in m.columns if c.split(" [")[0] == name})
+    m.to_csv(tmp_path / "m.csv", index=False)
+    with pytest.raises(InputError) as e:
+        read_met(tmp_path / "m.csv", read_sites(site / "sites.toml"))
+    assert f"column '{header}'" in str(e.value) and hint in str(e.value)
