@@ -252,6 +252,8 @@ def cmd_run(args) -> int:
         print(f"  {name}")
     for line in status_lines(result.table, study.inputs):
         print(line)
+    for line in run_span_notes(args.scenario, result.table, args.resolution):
+        print(line)
     for line in site_status_lines(result.table):
         print(line)
     return 0
@@ -283,6 +285,19 @@ def status_lines(table, inputs) -> list[str]:
         if start is not None and end is not None:
             lines.extend("  " + c for c in coverage_notes(inputs, start, end))
     return lines
+
+
+def run_span_notes(scenario, table, resolution=None) -> list[str]:
+    """:func:`workbench.preflight.span_notes` for a finished run: its periods from
+    `table` (budget rows), ``[period]`` start and end from the scenario file."""
+    from .preflight import span_notes
+    from .scenario import load_scenario
+    t = table[table["period"].astype(str) != "span"]
+    if t.empty or "period_start" not in t:
+        return []
+    p = load_scenario(scenario).data["period"]
+    return span_notes(p.get("start"), p.get("end"), t["period_start"].min(),
+                      t["period_end"].max(), resolution or p["resolution"])
 
 
 def site_status_lines(table, min_sites=None) -> list[str]:

@@ -65,13 +65,23 @@ def combined_notes(air: xr.Dataset, pair: str) -> list:
     long = pd.concat([frame[frame[k]].assign(member=sp) for k, sp in (("g", gas), ("p", part))])
     per = long.groupby(["site", "member", "sampler"])["days"].agg(["size", "median"])
     text = (per.index.get_level_values("sampler") + " (" + per["size"].astype(str)
-            + " samples of about " + per["median"].round().astype(int).astype(str) + " d)")
+            + " samples of about " + per["median"].map(_length_text) + ")")
     text = text.groupby(level=["site", "member"]).agg(", ".join)
     return [f"{gas} and {part} at {s}: the {pair} bracket (dry N with the pair all as gas or "
             f"all as particle) is combined across samplers: {gas} from {text[(s, gas)]}, "
             f"{part} from {text[(s, part)]}; each member is deposited over its own sampling "
             f"periods and scaled to the reporting period by its own coverage "
             f"({int(lone[s])} samples hold one member only)" for s in sites]
+
+
+def _length_text(days) -> str:
+    """A sampling length [d] in words: whole days from 1 d, else hours (an hourly
+    monitor's rows are ``1 h``, not ``0 d``).
+
+    >>> _length_text(7.0), _length_text(1 / 24), _length_text(0.5)
+    ('7 d', '1 h', '12 h')
+    """
+    return f"{int(round(days))} d" if days >= 1 else f"{max(1, int(round(days * 24)))} h"
 
 
 def split_pairs(split, rows, air, nodes) -> dict:

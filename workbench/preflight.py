@@ -10,6 +10,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
+import pandas as pd
 
 from .errors import ScenarioError, WorkbenchError
 
@@ -43,6 +44,8 @@ class Prepared:
         if fixed:
             lines.append("fixed velocities [cm/s]: " + ", ".join(f"{k} {v:g}" for k, v in
                                                               fixed.items()))
+        lines.extend(span_notes(sc.data["period"].get("start"), sc.data["period"].get("end"),
+                                p["start"].iloc[0], p["end"].iloc[-1], res))
         cover = coverage_notes(self.study.inputs, p["start"].iloc[0], p["end"].iloc[-1])
         lines.extend(cover)
         if cover and all(c.startswith("warning") for c in cover) and len(cover) == len(
@@ -107,6 +110,36 @@ def coverage_notes(inputs, start, end) -> list[str]:
         if gaps:
             out.append(f"note: the {role} covers {day(a)} to {day(b)} UTC: periods "
                        f"{' and '.join(gaps)} lack it")
+    return out
+
+
+def span_notes(start, end, first, last, resolution) -> list[str]:
+    """Lines saying that ``[period] start`` or ``end`` lies inside a reporting period, so
+    that the budget covers the whole periods that hold them (a week asked at resolution
+    "year" gives the whole year, as docs/scenario.md says).
+
+    Parameters
+    ----------
+    start, end : str, datetime-like or None
+        ``[period] start`` and ``end`` as the scenario gives them (UTC; None: not given).
+    first, last : datetime-like
+        Start of the first reporting period and end of the last (UTC).
+    resolution : str
+        The resolution of the periods.
+    """
+    out = []
+    day = lambda t: str(np.datetime64(t, "m")).replace("T00:00", "")   # noqa: E731
+    for key, given, edge in (("start", start, first), ("end", end, last)):
+        if given is None:
+            continue
+        g = np.datetime64(pd.Timestamp(given).tz_localize(None)
+                          if pd.Timestamp(given).tzinfo is None
+                          else pd.Timestamp(given).tz_convert("UTC").tz_localize(None), "ns")
+        if g != np.datetime64(edge, "ns"):
+            out.append(f"note: [period] {key} {day(g)} lies inside a {resolution} period: "
+                       f"the budget covers whole {resolution} periods, from {day(first)} to "
+                       f"{day(last)} (put start and end on the first instant of a {resolution} "
+                       "period; docs/scenario.md)")
     return out
 
 

@@ -6,7 +6,9 @@ The rule (docs/budget.md, "Status" and "Whole span"): a whole-span total that ho
 component (status ``complete``, ``filled`` or ``flagged``: a flagged span row holds every
 component and passes completeness, it carries kept flagged samples or a sulfate
 fallback) is ranked with the others of its kind; a ``partial`` total is ranked apart, in
-one group per set of missing components ("without NO2"), never beside a full one; a site
+one group per set of missing components ("without NO2"), never beside a full one (a
+``flagged`` total that lacks a component, its ``missing_components`` not empty, is
+ranked with the partial ones of its set); a site
 without a total (no year passes completeness) is listed last, unranked.
 
 Imports only numpy and pandas: any module of the package may import it.
@@ -103,8 +105,11 @@ def ranking(span: pd.DataFrame, element: str, n_periods=None, sites=None,
         if "missing_components" in e \
         else pd.Series("", index=e.index)
     v = e[value].astype(float)
-    full = e["status"].astype(str).isin(FULL_SET) & np.isfinite(v)
-    part = (e["status"].astype(str) == "partial") & np.isfinite(v)
+    # a flagged total may lack a component too (flagged wins over partial in the status
+    # of a sum): the missing components decide the group, not the status word alone
+    lacks = miss.str.strip() != ""
+    full = e["status"].astype(str).isin(FULL_SET) & np.isfinite(v) & ~lacks
+    part = ((e["status"].astype(str) == "partial") | lacks) & np.isfinite(v) & ~full
     e["group"] = np.where(full, EVERY_COMPONENT,
                           np.where(part, "partial: without " + miss.str.split().str.join(", "),
                                    NO_TOTAL))

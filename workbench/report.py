@@ -83,12 +83,19 @@ def _table_html(frame: pd.DataFrame, float_format=None) -> str:
 _MARK = {"complete": "", "flagged": " f", "partial": " p", "filled": " ~", "missing": ""}
 
 
+def _lacks(row) -> bool:
+    """The row's sum lacks a component (a flagged total may: flagged wins over partial)."""
+    m = row.get("missing_components")
+    return isinstance(m, str) and m.strip() != ""
+
+
 def _pivot_html(per: pd.DataFrame) -> str:
     """Rows site/receptor/element, one column per period, value with a status mark."""
     if per.empty:
         return "<p>No periods.</p>"
     cell = per.apply(lambda r: "–" if not np.isfinite(r["flux_kg_ha_yr"]) else
-                     f"{plain(r['flux_kg_ha_yr'])}{_MARK.get(r['status'], '?')}", axis=1)
+                     f"{plain(r['flux_kg_ha_yr'])}{_MARK.get(r['status'], '?')}"
+                     + (" p" if r["status"] != "partial" and _lacks(r) else ""), axis=1)
     wide = per.assign(cell=cell).pivot_table(index=["site", "receptor", "element"],
                                              columns="period", values="cell", aggfunc="first")
     wide.columns.name = None
@@ -271,7 +278,7 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
         parts.extend(net)
     whole = ("<p>No year passes completeness.</p>" if span.empty else _table_html(
         span[["site", "receptor", "element", "flux_kg_ha_yr", "flux_eq_ha_yr", "status",
-              "years_used", "years_excluded"]]))
+              "missing_components", "years_used", "years_excluded"]]))
     parts.append("<h2>Whole span: mean of the years that pass completeness</h2>")
     parts.append(fold(whole, len(span), "every site and receptor") if network else whole)
     parts.extend(_exceedance_html(result, study, network, ex))

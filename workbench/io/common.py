@@ -143,10 +143,24 @@ def join_reasons(parts) -> np.ndarray:
     return out
 
 
+#: Unit spellings of loggers and sheets that pint reads as another unit or not at all
+#: (lower case, blanks removed) -> what to write instead.
+UNIT_SPELLINGS = {
+    "mb": "'mbar' or 'hPa' (pint reads 'mb' as millibarn, an area)",
+    "degc": "'degC'", "deg.c": "'degC'", "c": "'degC' (pint reads 'C' as coulomb)",
+    "f": "'degF' (pint reads 'F' as farad)", "degf": "'degF'",
+    "kmh": "'km/h'", "kts": "'knot'", "%rh": "'%'", "rh%": "'%'",
+    "mm/h": "'mm' (the hour's total)", "mm/hr": "'mm' (the hour's total)",
+}
+
+
 def unit_error(tab: RawTable, name: str, exc: Exception, expected: str) -> InputError:
-    return InputError(f"unknown or dimensionally wrong unit ({exc})", file=tab.path,
+    unit = tab.headers[name].unit
+    hint = UNIT_SPELLINGS.get("".join(str(unit).split()).lower())
+    return InputError(f"unknown or dimensionally wrong unit ({exc})"
+                      + (f"; write {hint}" if hint else ""), file=tab.path,
                       line=tab.header_line, column=tab.raw_headers[name],
-                      value=tab.headers[name].unit, expected=expected)
+                      value=unit, expected=expected)
 
 
 def _first_difference(tab: RawTable, columns, i: int, j: int):

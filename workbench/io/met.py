@@ -26,6 +26,13 @@ from .methours import CLOCK_BACK_MONTHS, clock_change_hint  # noqa: F401 (re-exp
 #                    methours so that metlocate needs no import of met: no import cycle)
 
 
+#: Headers shown for missing required met columns (any unit of the dimension is read).
+MET_HEADER_EXAMPLES = {"wind_speed": "wind_speed [m/s]", "temperature": "temperature [degC]",
+                       "relative_humidity": "relative_humidity [%]",
+                       "solar_radiation": "solar_radiation [W/m2]",
+                       "precipitation": "precipitation [mm]", "pressure": "pressure [hPa]"}
+
+
 def _convert(tab: RawTable, name: str, target: str):
     raw = tab.numbers(name, missing="samples")        # NA, N/A, NaN, - ... counted
     unit = tab.unit_of(name, default="1" if target == "1" else None)
@@ -70,7 +77,8 @@ def read_met(path, catalogue):
     if fast is not None:        # else a file the line-by-line reader below must judge
         return fast
     tab = RawTable.read(path)
-    tab.require(["site", "time"] + [k for k, v in MET_VARIABLES.items() if v[1]])
+    tab.require(["site", "time"] + [k for k, v in MET_VARIABLES.items() if v[1]],
+                examples=MET_HEADER_EXAMPLES)
     sites = check_sites(tab, catalogue)
     off = catalogue.utc_offsets(sites)
     label = tab.meta.get("time_label", "end").lower()

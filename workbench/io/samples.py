@@ -20,6 +20,7 @@ from ..units import Q_, convert_plain, to_amount
 from . import plausible as _plausible
 from .common import (check_intervals, check_overlaps, check_sites, check_time_zones,
                      duplicate_rows, join_reasons, unit_error)
+from .gaugerows import check_gauge_sampler
 from .ledger import Ledger
 from .samplerids import check_spellings, typo_notes
 from .shifted import check_shifted
@@ -29,6 +30,15 @@ PRECIP_REQUIRED = ("site", "start", "end", "gauge_depth")
 PRECIP_OPTIONAL = ("sample_depth", "sample_volume", "collector_area", "pH", "conductivity",
                    "sampler_id", "flags")
 AIR_REQUIRED = ("site", "start", "end")
+#: Headers shown for missing required columns of the sample and air files.
+REQUIRED_EXAMPLES = {"gauge_depth": "gauge_depth [mm]"}
+#: A file with one time label per row instead of periods (a monitor's hourly export).
+PERIOD_HINTS = {(c, "start"): (f"a {c!r} column: one time label per row (an hourly monitor?): "
+                               "give each row its period, 'start' and 'end' (an hour-ending "
+                               "label 2022-01-01T01:00 is start 2022-01-01T00:00, end "
+                               "2022-01-01T01:00; docs/data_formats.md, \"Setting up your own "
+                               "site, step by step\")")
+                for c in ("time", "date", "datetime", "timestamp")}
 #: Columns with a unit that are not species even when their names look alike.
 _NOT_SPECIES = ("gauge_depth", "sample_depth", "sample_volume", "collector_area", "ph",
                 "conductivity")
@@ -198,7 +208,7 @@ def _flag_words(tab, flag_text, flag_map):
 def _interval_table(path, catalogue, required):
     """Read a file of intervals: checked sites, UTC start and end, sampler ids."""
     tab = RawTable.read(path)
-    tab.require(required)
+    tab.require(required, examples=REQUIRED_EXAMPLES, hints=PERIOD_HINTS)
     n = len(tab.frame)
     sites = check_sites(tab, catalogue)
     off = catalogue.utc_offsets(sites)
@@ -332,6 +342,8 @@ def read_precipitation(path, catalogue, flag_map=None):
     has_chem = np.zeros(n, bool)
     for v, c, _, _ in conc.values():
         has_chem |= ~np.isnan(v) | c
+    check_gauge_sampler(tab, sites, samplers, gauge, has_chem | ~np.isnan(ph) | ~np.isnan(cond),
+                        flag_norm, rows=~repeat)
     empty = np.isnan(gauge) & np.isnan(sample) & ~has_chem & np.isnan(ph)
     reasons = join_reasons(parts)
     reasons = np.where(empty, join_reasons([reasons, np.full(n, "no values in the row", object)]),

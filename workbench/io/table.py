@@ -303,14 +303,37 @@ class RawTable:
     def header_line(self) -> int:
         return int(self.lines[0]) - 1 if len(self.lines) else 1
 
-    def require(self, names, any_of=()):
-        """Raise for the first required column that is missing."""
-        for n in names:
-            if n not in self.headers:
-                raise InputError("missing required column", file=self.path,
-                                 line=self.header_line, column=n,
-                                 value=None, expected=f"a column named {n!r}"
-                                 + suggest(n, self.headers))
+    def require(self, names, any_of=(), examples=None, hints=None):
+        """Raise for the first required column that is missing, naming in the same
+        message every other missing one and the file's own columns, so that a file
+        from another logger is fixed in one pass.
+
+        `examples`: name -> a header with its unit (``"wind_speed [m/s]"``) shown for
+        the missing columns; `hints`: (present column, missing column) -> a sentence
+        said when the file has the first and lacks the second (a ``time`` column in a
+        file of periods)."""
+        missing = [n for n in names if n not in self.headers]
+        if missing:
+            n, examples = missing[0], examples or {}
+            expected = f"a column named {n!r}" + suggest(n, self.headers)
+            if len(missing) > 1:
+                expected += "; also missing: " + ", ".join(repr(m) for m in missing[1:])
+            shown = [examples[m] for m in missing if m in examples]
+            if shown:
+                expected += " (headers such as " + ", ".join(repr(x) for x in shown) \
+                            + ": name, then the unit in brackets)"
+            for (have, lack), text in (hints or {}).items():
+                if have in self.headers and lack in missing:
+                    expected += "; " + text
+            own = [self.raw_headers.get(h, h) for h in self.headers if h not in names]
+            if own:
+                more = f", ... ({len(own) - 12} more)" if len(own) > 12 else ""
+                expected += ("; the file's other columns: "
+                             + ", ".join(repr(c) for c in own[:12]) + more
+                             + " (rename those that hold these variables)")
+            raise InputError("missing required column" + ("s" if len(missing) > 1 else ""),
+                             file=self.path, line=self.header_line, column=n,
+                             value=None, expected=expected)
         for group in any_of:
             if not any(g in self.headers for g in group):
                 raise InputError("missing required column", file=self.path,
