@@ -32,10 +32,13 @@ def test_quality_table_counts_every_sample(analysis_run):
     status = s["status"].values.astype(str)
     text = " ".join(q["excluded_by_reason"].fillna(""))
     n_listed = sum(int(c) for c in pd.Series(text).str.findall(r"\((\d+)\)").iloc[0])
-    # every excluded sample of the two years is counted once per reason
-    end_year = pd.DatetimeIndex(s["end"].values - np.timedelta64(1, "s")).year
-    ex = (status == "excluded") & np.isin(end_year, [2020, 2021])
-    n_reasons = sum(len(r.split("; ")) for r in s["reasons"].values.astype(str)[ex])
+    # every excluded sample is counted once per reason in each of the two years it overlaps
+    first = pd.DatetimeIndex(s["start"].values).year
+    last = pd.DatetimeIndex(s["end"].values - np.timedelta64(1, "s")).year
+    n_years = np.minimum(last, 2021) - np.maximum(first, 2020) + 1
+    ex = (status == "excluded") & (n_years > 0)
+    n_reasons = sum(len(r.split("; ")) * n for r, n in
+                    zip(s["reasons"].values.astype(str)[ex], n_years[ex]))
     assert n_listed == n_reasons
     have = q[q["site"].isin(["ridge", "mere"])]
     assert ((have["air_coverage_SO2"] >= 0) & (have["air_coverage_SO2"] <= 1)).all()
@@ -105,3 +108,46 @@ def test_report_has_trend_figures(analysis_run):
     html = html.replace("\\u00b7", "·")
     assert "Trends of the annual totals" in html and "S total · ridge · conifer_forest" in html
     assert html.count("plotly.js v") <= 2        # plotly.js written once (its header)
+
+
+def test_quality_reasons_count_a_sample_in_every_year_it_covers():
+    """A sample across 31 December is listed in both years, one ending after the last
+    year of the run in the years it covers: the reason counts agree with the wet
+    chain's per-year sample counts (which split a sample at the period bounds)."""
+    import xarray as xr
+
+    from workbench.analysis.handover import _reasons_by_year
+
+    t = lambda s: np.datetime64(s, "ns")  # noqa: E731
+    screened = xr.Dataset(
+        {"site": ("sample", ["a", "a", "a", "a"]),
+         "start": ("sample", [t("2022-12-27"), t("2022-06-01"), t("2023-12-26"), t("2023-01-01")]),
+         "end": ("sample", [t("2023-01-03"), t("2022-06-08"), t("2024-01-02"), t("2023-01-08")]),
+         "status": ("sample", ["flagged", "flagged", "excluded", "used"]),
+         "reasons": ("sample", ["leak", "leak; late", "broken funnel", ""])})
+    r = _reasons_by_year(screened).set_index("period")
+    assert r.loc["2022", "flagged_by_reason"] == "late (1); leak (2)"
+    assert r.loc["2023", "flagged_by_reason"] == "leak (1)"
+    assert r.loc["2023", "excluded_by_reason"] == "broken funnel (1)"
+    assert r.loc["2024", "excluded_by_reason"] == "broken funnel (1)"
+    assert r.loc["2024", "flagged_by_reason"] == ""
+
+
+def test_quality_reason_counts_match_wet_counts(analysis_run):
+    """Per site and year, the flagged and excluded samples the reasons list are the
+    samples the wet chain counts (wet_n_flagged, wet_n_excluded)."""
+    out, result, _ = analysis_run
+    q = pd.read_csv(out / "quality.csv", keep_default_na=False, na_values=[""])
+    s = result.screened
+    first = pd.DatetimeIndex(s["start"].values).year
+    last = pd.DatetimeIndex(s["end"].values - np.timedelta64(1, "s")).year
+    site = s["site"].values.astype(str)
+    status = s["status"].values.astype(str)
+    checked = 0
+    for _, row in q.dropna(subset=["wet_n_flagged"]).iterrows():
+        y = int(row["period"])
+        here = (site == row["site"]) & (first <= y) & (last >= y)
+        for st in ("flagged", "excluded"):
+            assert int(row[f"wet_n_{st}"]) == int((here & (status == st)).sum())
+            checked += 1
+    assert checked > 0

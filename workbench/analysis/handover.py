@@ -56,14 +56,25 @@ def precipitation_table(wet) -> pd.DataFrame:
 
 
 def _reasons_by_year(screened) -> pd.DataFrame:
-    """Samples excluded and flagged per site and year, by reason (year of the end)."""
+    """Samples excluded and flagged per site and calendar year, by reason.
+
+    A sample is counted in every calendar year its interval [start, end) overlaps, as
+    the wet chain's ``n_flagged``/``n_excluded`` count it, so a sample across 31
+    December is listed in both years and one ending after the last year of the run is
+    still listed in the years it covers.
+    """
     if screened is None:
         return pd.DataFrame(columns=["site", "period", "excluded_by_reason", "flagged_by_reason"])
-    f = pd.DataFrame({"site": screened["site"].values.astype(str),
-                      "period": pd.DatetimeIndex(screened["end"].values - np.timedelta64(1, "s"))
-                      .year.astype(str),
-                      "status": screened["status"].values.astype(str),
-                      "reasons": screened["reasons"].values.astype(str)})
+    first = pd.DatetimeIndex(screened["start"].values).year.values
+    last = pd.DatetimeIndex(screened["end"].values - np.timedelta64(1, "s")).year.values
+    n_years = np.maximum(last - first + 1, 1)
+    row = np.repeat(np.arange(len(first)), n_years)
+    # the k-th year of each sample: its first year + k (k counted within the sample's rows)
+    k = np.arange(len(row)) - np.repeat(np.cumsum(n_years) - n_years, n_years)
+    f = pd.DataFrame({"site": screened["site"].values.astype(str)[row],
+                      "period": (first[row] + k).astype(str),
+                      "status": screened["status"].values.astype(str)[row],
+                      "reasons": screened["reasons"].values.astype(str)[row]})
     keys = ["site", "period"]
     out = f[keys].drop_duplicates().set_index(keys)
     for st in ("excluded", "flagged"):
@@ -93,8 +104,9 @@ def quality_table(years, wet=None, screened=None) -> pd.DataFrame:
     -------
     DataFrame
         site, period; the wet fractions and counts (``wet_`` prefix) and the wet status;
-        samples excluded and flagged by reason (``reason (count)``, by the year in which
-        a sample ends); ``air_coverage_<species>`` [1] (fraction of the year's hours with a
+        samples excluded and flagged by reason (``reason (count)``, a sample counted in
+        every calendar year it overlaps, as the ``wet_n_*`` counts);
+        ``air_coverage_<species>`` [1] (fraction of the year's hours with a
         concentration) and ``vd_coverage_min`` [1] (the smallest over the site's
         receptors and species).
     """
