@@ -80,7 +80,7 @@ def output_names(species) -> list:
     names = [f"vd_{s}" for s in sp] + [f"dry_{s}" for s in sp] + \
         [f"flux_coverage_{s}" for s in sp]
     names += [f"dry_{e}" for e in ("S", "N") if any(DRY_SPECIES[s] == e for s in sp)]
-    return names + ["met_flagged_hours"]
+    return names + ["met_flagged_hours", "met_missing_hours"]
 
 
 def make_periods(grid: Grid, resolution="month", start=None, end=None) -> pd.DataFrame:
@@ -181,7 +181,8 @@ def block_result(grid: Grid, ys: slice, xs: slice, dry_options, budget_options: 
         (variable, period, y, x) in the order of :func:`output_names`: period-mean
         gap-filled Vd [m s-1], dry deposition of the species' element [kg ha-1],
         flux coverage [1], total dry S and N [kg ha-1], met hours with a plausibility
-        flag [1].  NaN for cells without a class.
+        flag [1], met hours without a Vd of the cell's own met [1].  NaN for cells
+        without a class.
     """
     _check_options(dry_options)
     names = output_names(grid.species)
@@ -209,6 +210,14 @@ def block_result(grid: Grid, ys: slice, xs: slice, dry_options, budget_options: 
 def _fill(out, names, idx, vel, dry, which, n_p):
     """Put one class's results of a block into `out` (variable, period, cell)."""
     totals = {}
+    missing = None                             # (cell, time): no Vd from the hour's met
+    for sp in vel:
+        filled, was, _ = vel[sp]
+        no_vd = (was | filled.isnull()).transpose("site", "receptor", "time").values[:, 0, :]
+        missing = no_vd if missing is None else missing | no_vd
+    if missing is not None:
+        out[names.index("met_missing_hours")][:, idx] = \
+            (missing.astype(float) @ _onehot(which, n_p)).T
     for sp, element in DRY_SPECIES.items():
         if f"vd_{sp}" not in names:
             continue

@@ -452,8 +452,9 @@ def _check(paths, ds) -> Grid:
                      "met has no pressure")
     n_out = int(np.sum([c is None for c in classes.reshape(-1)]))
     if n_out:
-        notes.append(f"{paths['land_use'].name}: {n_out} cells without a land-use class "
-                     "(_FillValue) are left out (NaN in every output)")
+        notes.append(f"{paths['land_use'].name}: {n_out} of {classes.size} cells without a "
+                     f"land-use class (_FillValue) {'is' if n_out == 1 else 'are'} left out "
+                     "(NaN in every output)")
     return Grid(paths=paths, dims=dims, classes=classes, latitude=lat, longitude=lon,
                 canopy_height=canopy, elevation=np.where(np.isfinite(elev), elev, 0.0),
                 wind_height=wind_height, sampler_height=heights.pop(), times=times,

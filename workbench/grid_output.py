@@ -37,6 +37,12 @@ def _attrs(name, grid, mapping) -> dict:
         a = {"units": "1", "long_name": "hours of the period whose met failed a plausibility "
              "check of the site reader (implausible values masked; docs/data_formats.md "
              "section 4)", "cell_methods": "time: sum"}
+    elif name == "met_missing_hours":
+        a = {"units": "1", "long_name": "hours of the period without a deposition velocity "
+             "from the cell's own met of that hour (a met value the engine needs is missing "
+             "or was masked): filled from the cell's mean diurnal cycle where it has enough "
+             "hours, else no Vd (NaN maps when every hour is missing)",
+             "cell_methods": "time: sum"}
     elif name.startswith("flux_coverage_"):
         sp = name[len("flux_coverage_"):]
         a = {"units": "1", "long_name": f"share of the period's hours with a {sp} "
@@ -113,6 +119,44 @@ def _class_codes(classes) -> np.ndarray:
     lookup = {c: k for k, c in enumerate(_CLASSES)}
     return np.array([lookup.get(c, -1) for c in classes.reshape(-1)],
                     "int16").reshape(classes.shape)
+
+
+def missing_met_notes(path: Path, grid) -> list:
+    """Notes on the cells whose maps lack a Vd for want of met, read back from grid.nc.
+
+    Every cell with a class is counted: those with no Vd at any hour of any period
+    (NaN maps), and those with some hours filled from their mean diurnal cycle.
+    """
+    with xr.open_dataset(path) as ds:
+        if "met_missing_hours" not in ds:
+            return []
+        miss = ds["met_missing_hours"].values.sum(axis=0)
+        vd = [ds[n].values for n in ds.data_vars if n.startswith("vd_")]
+        ydim, xdim = grid.dims
+        ycoord = ds[ydim].values if ydim in ds.coords else np.arange(grid.shape[0])
+        xcoord = ds[xdim].values if xdim in ds.coords else np.arange(grid.shape[1])
+    has_class = np.array([c is not None for c in grid.classes.reshape(-1)]).reshape(grid.shape)
+    no_vd = has_class & (np.all([np.all(np.isnan(v), axis=0) for v in vd], axis=0) if vd
+                         else np.zeros(grid.shape, bool))
+    some = has_class & ~no_vd & (miss > 0)
+    notes = []
+    if no_vd.any():
+        j, i = np.nonzero(no_vd)
+        where = ", ".join(f"{ydim}={ycoord[a]:g} {xdim}={xcoord[b]:g}"
+                          for a, b in list(zip(j, i))[:3])
+        cls = sorted({str(c) for c in grid.classes[no_vd]})
+        notes.append(f"{grid.paths['met'].name}: {int(no_vd.sum())} of {int(has_class.sum())} "
+                     f"cells with a class ({', '.join(cls)}) have no met the engine can use "
+                     f"at any hour (a required variable missing, _FillValue or masked "
+                     f"throughout; e.g. {where}): no deposition velocity, NaN in their vd_, "
+                     "dry_ maps; counted in met_missing_hours")
+    if some.any():
+        n = int(some.sum())
+        notes.append(f"{grid.paths['met'].name}: {n} cell{' has' if n == 1 else 's have'} "
+                     "hours without usable met (met_missing_hours > 0, at most "
+                     f"{int(miss[some].max())} h): their Vd there is filled from the cell's "
+                     "mean diurnal cycle")
+    return notes
 
 
 def write_grid_netcdf(ds: xr.Dataset, path: Path):
@@ -230,6 +274,9 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
             except OSError as exc:
                 raise OutputError(os_error_message(exc, target) + "; nothing was written "
                                   "into the output folder") from exc
+        grid.notes.extend(missing := missing_met_notes(target, grid))
+        for note in missing:
+            say(f"note: {note}")
         try:
             prov["outputs"] = [GRID_FILE, "provenance.json"]
             prov["notes"] = grid.notes
