@@ -67,3 +67,24 @@ def test_cells_without_met_are_counted_and_named(tmp_path):
     notes = " | ".join(prov["notes"])
     assert "1 of 16 cells with a class" in notes and "met_missing_hours" in notes
     assert "1 cell has hours without usable met" in notes
+
+
+def test_notebook_opens_a_finished_run_without_running(tmp_path, monkeypatch):
+    """grid_maps.ipynb on a user's finished run: `open_run(run folder)` (or its grid.nc)
+    opens the maps as written; before, every open ran the whole grid again (a
+    60 x 60 grid of a year: minutes).  The maps draw (headless)."""
+    from workbench import grid_demo, grid_output
+    from workbench.ui.figures_grid import grid_map_spec
+    folder = _demo(tmp_path)
+    written, _ = _run(folder / "scenario.toml", tmp_path / "out")
+
+    def no_run(*a, **k):
+        raise AssertionError("ran the grid again")
+    monkeypatch.setattr(grid_output, "run_grid", no_run)
+    for target in (tmp_path / "out", tmp_path / "out" / "grid.nc"):
+        maps = grid_demo.open_run(target)
+        xr.testing.assert_identical(maps, written)
+        spec = grid_map_spec(maps, "met_missing_hours", 0)
+        assert len(spec["data"][0]["z"]) == 4
+    with pytest.raises(FileNotFoundError, match="grid.nc of a finished"):
+        grid_demo.open_run(tmp_path / "in")
