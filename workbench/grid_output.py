@@ -39,9 +39,11 @@ def _attrs(name, grid, mapping) -> dict:
              "section 4)", "cell_methods": "time: sum"}
     elif name == "met_missing_hours":
         a = {"units": "1", "long_name": "hours of the period without a deposition velocity "
-             "from the cell's own met of that hour (a met value the engine needs is missing "
-             "or was masked): filled from the cell's mean diurnal cycle where it has enough "
-             "hours, else no Vd (NaN maps when every hour is missing)",
+             "from the cell's own met (a met value the engine needs is missing or was "
+             "masked: of that hour, or the previous hour's rain for the surface wetness, "
+             "unknown at the first hour of the record when it is dry): filled from the "
+             "cell's mean diurnal cycle where it has enough hours, else no Vd (NaN maps "
+             "when every hour is missing)",
              "cell_methods": "time: sum"}
     elif name.startswith("flux_coverage_"):
         sp = name[len("flux_coverage_"):]
