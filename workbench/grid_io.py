@@ -544,7 +544,7 @@ def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue):
     sites = np.repeat(kept.astype(object), n_t)
     t = np.tile(grid.times, n_c)
     reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, grid.met_units)
-    flagged = (np.asarray(reasons, str) != "").reshape(n_c, n_t)
+    flagged = (np.asarray(reasons, object) != "").reshape(n_c, n_t)  # no text array
     dvars = {}
     for name, v in values.items():
         unit, _, long_name = MET_VARIABLES[name]
