@@ -199,3 +199,22 @@ def test_cluster_close_hides_the_nannys_kill_warning(monkeypatch):
         assert client is fake
     assert seen == [logging.ERROR, logging.ERROR]
     assert logging.getLogger("distributed.nanny").level == before
+
+
+def test_cells_without_concentrations_are_counted(tmp_path):
+    """SO2 missing at every interval of cell (2, 3): its dry_SO2 is NaN and
+    flux_coverage_SO2 0 (the other species as usual), and a note counts it per species."""
+    folder = _demo(tmp_path)
+
+    def gap(ds):
+        v = ds["SO2"].values.copy()
+        v[:, 2, 3] = np.nan
+        return ds.assign(SO2=ds["SO2"].copy(data=v))
+    _rewrite(folder / "air.nc", gap)
+    ds, prov = _run(folder / "scenario.toml", tmp_path / "out")
+    assert np.all(np.isnan(ds["dry_SO2"].values[:, 2, 3]))
+    assert np.all(ds["flux_coverage_SO2"].values[:, 2, 3] == 0)
+    assert np.all(np.isfinite(ds["dry_NH3"].values[:, 2, 3]))
+    notes = " | ".join(prov["notes"])
+    assert "no concentration in any period" in notes and "SO2 1" in notes
+    assert "NH3 " not in notes.split("no concentration in any period")[1].split("|")[0]

@@ -124,16 +124,20 @@ def _class_codes(classes) -> np.ndarray:
 
 
 def missing_met_notes(path: Path, grid) -> list:
-    """Notes on the cells whose maps lack a Vd for want of met, read back from grid.nc.
+    """Notes on the cells whose maps lack a Vd for want of met, or a deposition for want
+    of concentrations, read back from grid.nc.
 
     Every cell with a class is counted: those with no Vd at any hour of any period
-    (NaN maps), and those with some hours filled from their mean diurnal cycle.
+    (NaN maps), those with a Vd but no concentration of a species in any period, and
+    those with some hours filled from their mean diurnal cycle.
     """
     with xr.open_dataset(path) as ds:
         if "met_missing_hours" not in ds:
             return []
         miss = ds["met_missing_hours"].values.sum(axis=0)
         vd = [ds[n].values for n in ds.data_vars if n.startswith("vd_")]
+        coverage = {n[len("flux_coverage_"):]: ds[n].values for n in ds.data_vars
+                    if n.startswith("flux_coverage_")}
         ydim, xdim = grid.dims
         ycoord = ds[ydim].values if ydim in ds.coords else np.arange(grid.shape[0])
         xcoord = ds[xdim].values if xdim in ds.coords else np.arange(grid.shape[1])
@@ -152,6 +156,13 @@ def missing_met_notes(path: Path, grid) -> list:
                      f"at any hour (a required variable missing, _FillValue or masked "
                      f"throughout; e.g. {where}): no deposition velocity, NaN in their vd_, "
                      "dry_ maps; counted in met_missing_hours")
+    no_air = {sp: int((has_class & ~no_vd & np.all(np.nan_to_num(c) == 0, axis=0)).sum())
+              for sp, c in coverage.items()}
+    no_air = {sp: n for sp, n in no_air.items() if n}
+    if no_air:
+        notes.append(f"{grid.paths['air'].name}: cells with a class and a Vd but no "
+                     "concentration in any period (dry_<species> NaN, flux_coverage_<species> "
+                     "0): " + ", ".join(f"{sp} {n}" for sp, n in no_air.items()))
     if some.any():
         n = int(some.sum())
         notes.append(f"{grid.paths['met'].name}: {n} cell{' has' if n == 1 else 's have'} "
