@@ -218,3 +218,24 @@ def test_cells_without_concentrations_are_counted(tmp_path):
     notes = " | ".join(prov["notes"])
     assert "no concentration in any period" in notes and "SO2 1" in notes
     assert "NH3 " not in notes.split("no concentration in any period")[1].split("|")[0]
+
+
+def test_a_missing_met_hour_is_named(tmp_path):
+    """A met file with one hour dropped (a model output that skipped a step): the error
+    names the hour before the gap, the step and how many hours are missing.  Before:
+    "not hourly (time index 100): got '...'", leaving the user to find the gap."""
+    from workbench.grid_io import GridError
+    folder = _demo(tmp_path)
+
+    def drop(ds):
+        keep = np.ones(ds.sizes["time"], bool)
+        keep[100] = False
+        return ds.isel(time=keep)
+    _rewrite(folder / "met.nc", drop)
+    with xr.open_dataset(folder / "met.nc") as ds:
+        t = ds["time_bnds"].values[99, 1] if "time_bnds" in ds else ds["time"].values[99]
+    with pytest.raises(GridError) as err:
+        open_grid(folder / "met.nc", folder / "air.nc", folder / "land_use.nc")
+    msg = str(err.value)
+    assert "met.nc" in msg and "'time'" in msg
+    assert f"a step of 2 h after {str(t)[:16]}, 1 hour missing (time index 100)" in msg

@@ -177,6 +177,15 @@ def _met_times(ds, path):
             times = times + HOUR
     off = (times - times.astype("datetime64[h]").astype("datetime64[ns]")) != np.timedelta64(0)
     step = np.diff(times) != HOUR
+    if step.any() and not off.any():
+        i = int(np.flatnonzero(step)[0])
+        gap = (times[i + 1] - times[i]) / HOUR
+        what = (f"{gap - 1:g} hour{'s' if gap != 2 else ''} missing" if gap > 1 else
+                "time not increasing" if gap <= 0 else "a step under 1 h")
+        raise GridError(f"not hourly: a step of {gap:g} h after {str(times[i])[:16]}, "
+                        f"{what} (time index {i + 1})", file=path, column="time",
+                        value=str(times[i + 1])[:19], expected="consecutive whole hours, "
+                        "one step of 1 h (fill missing hours with _FillValue)")
     for bad, why in ((off, "timestamp not on the hour"), (np.r_[False, step], "not hourly")):
         if bad.any():
             i = int(np.flatnonzero(bad)[0])
