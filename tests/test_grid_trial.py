@@ -239,3 +239,14 @@ def test_a_missing_met_hour_is_named(tmp_path):
     msg = str(err.value)
     assert "met.nc" in msg and "'time'" in msg
     assert f"a step of 2 h after {str(t)[:16]}, 1 hour missing (time index 100)" in msg
+
+
+def test_map_of_a_variable_without_periods_says_what_to_choose(tmp_path):
+    """grid_map(maps, "land_use"): a plain ValueError listing the maps to choose
+    (before: "cannot reshape array of size 16 into shape (4,)" from inside numpy)."""
+    from workbench.ui.figures_grid import grid_map_spec
+    folder = _demo(tmp_path)
+    ds, _ = _run(folder / "scenario.toml", tmp_path / "out")
+    with pytest.raises(ValueError, match="'land_use' is not in the grid output; choose one "
+                       "of vd_"):
+        grid_map_spec(ds, "land_use", 0)
