@@ -250,3 +250,32 @@ def test_map_of_a_variable_without_periods_says_what_to_choose(tmp_path):
     with pytest.raises(ValueError, match="'land_use' is not in the grid output; choose one "
                        "of vd_"):
         grid_map_spec(ds, "land_use", 0)
+
+
+def test_sigterm_leaves_nothing_behind(tmp_path):
+    """`kill PID` (SIGTERM, as a batch system's time limit sends) during `workbench grid`
+    ends it as Ctrl-C does: exit 130, "interrupted; nothing was written", and no
+    `.out.incomplete` (with its scratch copy) or lock left beside the output.  Before,
+    the process died at once and left both."""
+    import os
+    import signal
+    import subprocess
+    import sys
+    import time
+    folder = _demo(tmp_path, n=6)
+    out = tmp_path / "out"
+    env = dict(os.environ, PYTHONPATH=os.pathsep.join(sys.path))
+    p = subprocess.Popen([sys.executable, "-c", "import sys; from workbench.cli import main; "
+                          "sys.exit(main())", "grid", str(folder / "scenario.toml"), "--out",
+                          str(out), "--in-process", "--block", "2"],
+                         stderr=subprocess.PIPE, text=True, env=env, cwd=tmp_path)
+    deadline = time.monotonic() + 120
+    while not (tmp_path / ".out.incomplete").exists() and time.monotonic() < deadline:
+        time.sleep(0.05)
+    assert (tmp_path / ".out.incomplete").exists(), p.communicate()[1]
+    time.sleep(1.0)
+    p.send_signal(signal.SIGTERM)
+    err = p.communicate(timeout=120)[1]
+    assert p.returncode == 130, err
+    assert "interrupted; nothing was written" in err
+    assert sorted(x.name for x in tmp_path.iterdir()) == ["in"]

@@ -223,6 +223,28 @@ def _cluster(workers=None, scheduler=None):
             nanny.setLevel(level)
 
 
+@contextlib.contextmanager
+def _terminate_as_interrupt():
+    """SIGTERM (a batch system's time limit, ``kill``) raises KeyboardInterrupt while a
+    grid runs, as Ctrl-C does: the run folder and its scratch copy (hundreds of MB for a
+    year of a large grid) are removed instead of left behind as ``.<out>.incomplete``.
+    Only where the default handler is in force, on the main thread."""
+    import signal
+    import threading
+
+    def on_term(signum, frame):
+        raise KeyboardInterrupt
+    if threading.current_thread() is not threading.main_thread() or \
+            signal.getsignal(signal.SIGTERM) is not signal.SIG_DFL:
+        yield
+        return
+    before = signal.signal(signal.SIGTERM, on_term)
+    try:
+        yield
+    finally:
+        signal.signal(signal.SIGTERM, before)
+
+
 def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
              use_dask=None, workers=None, scheduler=None) -> dict:
     """Compute a scenario's ``[grid]`` and write the run folder (grid.nc, provenance.json).
@@ -259,7 +281,8 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
         import importlib.util
         use_dask = importlib.util.find_spec("dask") is not None
     started = _dt.datetime.now(_dt.timezone.utc)
-    with RunFolder(out, {"scenario": sc.path, **paths}, overwrite, say=say) as folder, \
+    with _terminate_as_interrupt(), \
+            RunFolder(out, {"scenario": sc.path, **paths}, overwrite, say=say) as folder, \
             _cluster(workers, scheduler) as client:
         grid = open_grid(paths["met"], paths["air"], paths["land_use"])
         say(describe(grid))
