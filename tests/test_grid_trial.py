@@ -279,3 +279,27 @@ def test_sigterm_leaves_nothing_behind(tmp_path):
     assert p.returncode == 130, err
     assert "interrupted; nothing was written" in err
     assert sorted(x.name for x in tmp_path.iterdir()) == ["in"]
+
+
+def test_met_in_local_time_is_explained(tmp_path):
+    """Met written in local time (6 h behind UTC) labelled as UTC: the sun shines at
+    night at many hours of every cell.  met_flagged_hours counted them, with no word
+    why; now a note gives the count and the reasons at the cell with the most, worded
+    for a grid (the time coordinate, not a site's utc_offset_h)."""
+    folder = _demo(tmp_path)
+
+    def local(ds):
+        shift = np.timedelta64(-6, "h")
+        ds = ds.assign_coords(time=ds["time"].values + shift)
+        if "time_bnds" in ds:
+            ds["time_bnds"] = ds["time_bnds"] + shift
+        return ds
+    _rewrite(folder / "met.nc", local)
+    ds, prov = _run(folder / "scenario.toml", tmp_path / "out")
+    total = int(np.nansum(ds["met_flagged_hours"].values))
+    assert total > 16 * 50
+    note = [n for n in prov["notes"] if "failed a plausibility check" in n]
+    assert len(note) == 1 and f"{total} cell-hours in 16 cells" in note[0]
+    assert "solar radiation at night" in note[0]
+    assert "check that the time coordinate is UTC" in note[0]
+    assert "utc_offset_h" not in note[0]

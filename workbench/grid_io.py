@@ -526,7 +526,27 @@ def block_catalogue(grid: Grid, ys: slice, xs: slice) -> SiteCatalogue:
     return SiteCatalogue(sites)
 
 
-def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue):
+def flag_reasons(grid: Grid, j: int, i: int) -> dict:
+    """reason -> hours, of the plausibility flags of the met of cell (j, i) (the checks
+    of :func:`read_block`), worded for a grid: a site's ``utc_offset_h`` is the grid's
+    time coordinate."""
+    ys, xs = slice(j, j + 1), slice(i, i + 1)
+    cat = block_catalogue(grid, ys, xs)
+    if not len(cat):
+        return {}
+    reasons = read_block(grid, ys, xs, cat, with_reasons=True)[3]
+    out = {}
+    for text in reasons:
+        for part in str(text).split("; ") if text else ():
+            part = part.replace("check utc_offset_h and whether times label the start or "
+                                "the end of the hour", "check that the time coordinate is "
+                                "UTC and labels the end of the hour (or has time bounds)")
+            out[part] = out.get(part, 0) + 1
+    return dict(sorted(out.items(), key=lambda kv: -kv[1]))
+
+
+def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue,
+               with_reasons=False):
     """Met and air of the cells of `catalogue` inside one block, in the site layout.
 
     Returns
@@ -539,6 +559,8 @@ def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue):
         interval with no species value is left out (as an empty row of the site file).
     flagged : ndarray of bool, (site, time)
         Met records with a plausibility flag (their implausible values masked).
+    reasons : ndarray of object
+        With `with_reasons`: the "; "-joined reasons of each record (site-major).
     """
     ids = cell_ids(ys, xs)
     keep = np.isin(ids, catalogue.ids)
@@ -561,6 +583,8 @@ def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue):
                        {"units": _UNIT_TEXT.get(unit, unit), "long_name": long_name})
     met = xr.Dataset(dvars, coords={"site": kept.tolist(), "time": grid.times})
     met["time"].attrs["long_name"] = "end of the hour (UTC)"
+    if with_reasons:
+        return met, _air_block(grid, ys, xs, keep, kept), flagged, reasons
     return met, _air_block(grid, ys, xs, keep, kept), flagged
 
 

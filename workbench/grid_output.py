@@ -20,7 +20,7 @@ import xarray as xr
 
 from . import __version__
 from .grid import DRY_SPECIES, compute_grid, default_block, make_periods, staged
-from .grid_io import describe, open_grid
+from .grid_io import describe, flag_reasons, open_grid
 from .landuse import LAND_USE
 from .runfolder import OutputError, RunFolder, os_error_message
 
@@ -121,6 +121,27 @@ def _class_codes(classes) -> np.ndarray:
     lookup = {c: k for k, c in enumerate(_CLASSES)}
     return np.array([lookup.get(c, -1) for c in classes.reshape(-1)],
                     "int16").reshape(classes.shape)
+
+
+def flag_notes(path: Path, grid) -> list:
+    """A note on the met records that failed a plausibility check: how many, in how many
+    cells, and the reasons at the cell with the most (read again, one cell)."""
+    with xr.open_dataset(path) as ds:
+        flagged = ds["met_flagged_hours"].values.sum(axis=0)
+        ydim, xdim = grid.dims
+        ycoord = ds[ydim].values if ydim in ds.coords else np.arange(grid.shape[0])
+        xcoord = ds[xdim].values if xdim in ds.coords else np.arange(grid.shape[1])
+    total = np.nansum(flagged)
+    if not total > 0:
+        return []
+    j, i = np.unravel_index(np.nanargmax(flagged), flagged.shape)
+    reasons = flag_reasons(grid, int(j), int(i))
+    top = "; ".join(f"{n} h {text}" for text, n in list(reasons.items())[:3])
+    cells = int(np.nansum(flagged > 0))
+    return [f"{grid.paths['met'].name}: {int(total)} cell-hours in {cells} "
+            f"cell{'s' if cells != 1 else ''} failed a plausibility check (masked; counted in "
+            f"met_flagged_hours); of all the met hours of the cell with the most "
+            f"({ydim}={ycoord[j]:g} {xdim}={xcoord[i]:g}): {top}"]
 
 
 def missing_met_notes(path: Path, grid) -> list:
@@ -319,7 +340,8 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
             except OSError as exc:
                 raise OutputError(os_error_message(exc, target) + "; nothing was written "
                                   "into the output folder") from exc
-        grid.notes.extend(missing := missing_met_notes(target, grid))
+            flags = flag_notes(target, grid)      # the scratch copy, if any, still here
+        grid.notes.extend(missing := flags + missing_met_notes(target, grid))
         for note in missing:
             say(f"note: {note}")
         try:
