@@ -526,25 +526,6 @@ def block_catalogue(grid: Grid, ys: slice, xs: slice) -> SiteCatalogue:
     return SiteCatalogue(sites)
 
 
-def flag_reasons(grid: Grid, j: int, i: int) -> dict:
-    """reason -> hours, of the plausibility flags of the met of cell (j, i) (the checks
-    of :func:`read_block`), worded for a grid: a site's ``utc_offset_h`` is the grid's
-    time coordinate."""
-    ys, xs = slice(j, j + 1), slice(i, i + 1)
-    cat = block_catalogue(grid, ys, xs)
-    if not len(cat):
-        return {}
-    reasons = read_block(grid, ys, xs, cat, with_reasons=True)[3]
-    out = {}
-    for text in reasons:
-        for part in str(text).split("; ") if text else ():
-            part = part.replace("check utc_offset_h and whether times label the start or "
-                                "the end of the hour", "check that the time coordinate is "
-                                "UTC and labels the end of the hour (or has time bounds)")
-            out[part] = out.get(part, 0) + 1
-    return dict(sorted(out.items(), key=lambda kv: -kv[1]))
-
-
 def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue,
                with_reasons=False):
     """Met and air of the cells of `catalogue` inside one block, in the site layout.

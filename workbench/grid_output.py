@@ -20,7 +20,7 @@ import xarray as xr
 
 from . import __version__
 from .grid import DRY_SPECIES, compute_grid, default_block, make_periods, staged
-from .grid_io import describe, flag_reasons, open_grid
+from .grid_io import block_catalogue, describe, open_grid, read_block
 from .landuse import LAND_USE
 from .runfolder import OutputError, RunFolder, os_error_message
 
@@ -121,6 +121,25 @@ def _class_codes(classes) -> np.ndarray:
     lookup = {c: k for k, c in enumerate(_CLASSES)}
     return np.array([lookup.get(c, -1) for c in classes.reshape(-1)],
                     "int16").reshape(classes.shape)
+
+
+def flag_reasons(grid, j: int, i: int) -> dict:
+    """reason -> hours, of the plausibility flags of the met of cell (j, i) (the checks
+    of :func:`read_block`), worded for a grid: a site's ``utc_offset_h`` is the grid's
+    time coordinate."""
+    ys, xs = slice(j, j + 1), slice(i, i + 1)
+    cat = block_catalogue(grid, ys, xs)
+    if not len(cat):
+        return {}
+    reasons = read_block(grid, ys, xs, cat, with_reasons=True)[3]
+    out = {}
+    for text in reasons:
+        for part in str(text).split("; ") if text else ():
+            part = part.replace("check utc_offset_h and whether times label the start or "
+                                "the end of the hour", "check that the time coordinate is "
+                                "UTC and labels the end of the hour (or has time bounds)")
+            out[part] = out.get(part, 0) + 1
+    return dict(sorted(out.items(), key=lambda kv: -kv[1]))
 
 
 def flag_notes(path: Path, grid) -> list:
