@@ -80,7 +80,7 @@ def output_names(species) -> list:
     names = [f"vd_{s}" for s in sp] + [f"dry_{s}" for s in sp] + \
         [f"flux_coverage_{s}" for s in sp]
     names += [f"dry_{e}" for e in ("S", "N") if any(DRY_SPECIES[s] == e for s in sp)]
-    return names + ["met_flagged_hours"]
+    return names + ["met_flagged_hours", "met_missing_hours"]
 
 
 def make_periods(grid: Grid, resolution="month", start=None, end=None) -> pd.DataFrame:
@@ -146,20 +146,25 @@ def dry_for_sites(met, air, catalogue: SiteCatalogue, dry_options, budget_option
     return vd, vel, dry_components(rows, periods)
 
 
-def _onehot(which: np.ndarray, n_p: int) -> np.ndarray:
-    """(time, period) 1 where the hour lies in the period (`which` of assign_hours)."""
-    onehot = np.zeros((len(which), n_p))
-    inside = which >= 0
-    onehot[np.flatnonzero(inside), which[inside]] = 1.0
-    return onehot
+def _period_sums(values: np.ndarray, which: np.ndarray, n_p: int) -> np.ndarray:
+    """Sum over the hours of each period of (cell, time) values -> (cell, period).
+
+    numpy's own sum along time, one period at a time (a loop over the few periods, not
+    the hours): the same bits whatever the BLAS library and its threads, unlike a
+    product with a (time, period) matrix, whose order of additions changes with them
+    (maps that differed in the last bit between a run in process and on dask workers).
+    """
+    out = np.zeros((values.shape[0], n_p))
+    for p in range(n_p):
+        out[:, p] = values[:, which == p].sum(axis=1)
+    return out
 
 
 def _period_means(vd: np.ndarray, which: np.ndarray, n_p: int) -> np.ndarray:
     """Mean over the hours of each period of (cell, time) values, NaN skipped -> (cell, period)."""
-    onehot = _onehot(which, n_p)
     ok = np.isfinite(vd)
-    total = np.where(ok, vd, 0.0) @ onehot
-    count = ok.astype(float) @ onehot
+    total = _period_sums(np.where(ok, vd, 0.0), which, n_p)
+    count = _period_sums(ok.astype(float), which, n_p)
     with np.errstate(invalid="ignore", divide="ignore"):
         return np.where(count > 0, total / count, np.nan)
 
@@ -181,7 +186,8 @@ def block_result(grid: Grid, ys: slice, xs: slice, dry_options, budget_options: 
         (variable, period, y, x) in the order of :func:`output_names`: period-mean
         gap-filled Vd [m s-1], dry deposition of the species' element [kg ha-1],
         flux coverage [1], total dry S and N [kg ha-1], met hours with a plausibility
-        flag [1].  NaN for cells without a class.
+        flag [1], met hours without a Vd of the cell's own met [1].  NaN for cells
+        without a class.
     """
     _check_options(dry_options)
     names = output_names(grid.species)
@@ -194,7 +200,7 @@ def block_result(grid: Grid, ys: slice, xs: slice, dry_options, budget_options: 
         pos = {s: k for k, s in enumerate(cell_ids(ys, xs).tolist())}
         which = _periods.assign_hours(met["time"].values, periods)
         cells = np.array([pos[s] for s in cat.ids])
-        counts = flagged.astype(float) @ _onehot(which, n_p)      # (cell, period)
+        counts = _period_sums(flagged.astype(float), which, n_p)  # (cell, period)
         out[names.index("met_flagged_hours")][:, cells] = counts.T
         for cls in sorted({s.land_use for s in cat}):
             sub = SiteCatalogue([s for s in cat if s.land_use == cls])
@@ -209,6 +215,14 @@ def block_result(grid: Grid, ys: slice, xs: slice, dry_options, budget_options: 
 def _fill(out, names, idx, vel, dry, which, n_p):
     """Put one class's results of a block into `out` (variable, period, cell)."""
     totals = {}
+    missing = None                             # (cell, time): no Vd from the hour's met
+    for sp in vel:
+        filled, was, _ = vel[sp]
+        no_vd = (was | filled.isnull()).transpose("site", "receptor", "time").values[:, 0, :]
+        missing = no_vd if missing is None else missing | no_vd
+    if missing is not None:
+        out[names.index("met_missing_hours")][:, idx] = \
+            _period_sums(missing.astype(float), which, n_p).T
     for sp, element in DRY_SPECIES.items():
         if f"vd_{sp}" not in names:
             continue

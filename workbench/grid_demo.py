@@ -287,7 +287,8 @@ def open_run(scenario=None, out=None, block=10):
     scenario : path, optional
         A scenario with a ``[grid]`` section.  None, or a scenario without one (the
         site demo): the invented demo grid is made in a temporary folder and run (and
-        a line says so).
+        a line says so).  A finished run folder of ``workbench grid`` (or its
+        ``grid.nc``) is opened as it is, without running anything.
     out : path, optional
         The run folder (default: a new temporary folder).
     block : int
@@ -301,6 +302,14 @@ def open_run(scenario=None, out=None, block=10):
     import tempfile
     from .grid_output import GRID_FILE, run_grid
     from .scenario import load_scenario
+    done = Path(scenario) / GRID_FILE if scenario is not None and Path(scenario).is_dir() \
+        else Path(scenario) if scenario is not None and str(scenario).endswith(".nc") else None
+    if done is not None:
+        if not done.is_file():
+            raise FileNotFoundError(f"{done}: no such file; expected the grid.nc of a "
+                                    "finished `workbench grid` run (or a scenario.toml to run)")
+        with xr.open_dataset(done) as ds:
+            return ds.load()
     tmp = Path(tempfile.mkdtemp(prefix="workbench-grid-"))
     if scenario is not None and load_scenario(scenario).given.get("grid") is None:
         print(f"{scenario} has no [grid] section: showing the invented demo grid instead")

@@ -177,6 +177,15 @@ def _met_times(ds, path):
             times = times + HOUR
     off = (times - times.astype("datetime64[h]").astype("datetime64[ns]")) != np.timedelta64(0)
     step = np.diff(times) != HOUR
+    if step.any() and not off.any():
+        i = int(np.flatnonzero(step)[0])
+        gap = (times[i + 1] - times[i]) / HOUR
+        what = (f"{gap - 1:g} hour{'s' if gap != 2 else ''} missing" if gap > 1 else
+                "time not increasing" if gap <= 0 else "a step under 1 h")
+        raise GridError(f"not hourly: a step of {gap:g} h after {str(times[i])[:16]}, "
+                        f"{what} (time index {i + 1})", file=path, column="time",
+                        value=str(times[i + 1])[:19], expected="consecutive whole hours, "
+                        "one step of 1 h (fill missing hours with _FillValue)")
     for bad, why in ((off, "timestamp not on the hour"), (np.r_[False, step], "not hourly")):
         if bad.any():
             i = int(np.flatnonzero(bad)[0])
@@ -452,8 +461,9 @@ def _check(paths, ds) -> Grid:
                      "met has no pressure")
     n_out = int(np.sum([c is None for c in classes.reshape(-1)]))
     if n_out:
-        notes.append(f"{paths['land_use'].name}: {n_out} cells without a land-use class "
-                     "(_FillValue) are left out (NaN in every output)")
+        notes.append(f"{paths['land_use'].name}: {n_out} of {classes.size} cells without a "
+                     f"land-use class (_FillValue) {'is' if n_out == 1 else 'are'} left out "
+                     "(NaN in every output)")
     return Grid(paths=paths, dims=dims, classes=classes, latitude=lat, longitude=lon,
                 canopy_height=canopy, elevation=np.where(np.isfinite(elev), elev, 0.0),
                 wind_height=wind_height, sampler_height=heights.pop(), times=times,
@@ -516,7 +526,8 @@ def block_catalogue(grid: Grid, ys: slice, xs: slice) -> SiteCatalogue:
     return SiteCatalogue(sites)
 
 
-def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue):
+def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue,
+               with_reasons=False):
     """Met and air of the cells of `catalogue` inside one block, in the site layout.
 
     Returns
@@ -529,6 +540,8 @@ def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue):
         interval with no species value is left out (as an empty row of the site file).
     flagged : ndarray of bool, (site, time)
         Met records with a plausibility flag (their implausible values masked).
+    reasons : ndarray of object
+        With `with_reasons`: the "; "-joined reasons of each record (site-major).
     """
     ids = cell_ids(ys, xs)
     keep = np.isin(ids, catalogue.ids)
@@ -543,7 +556,7 @@ def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue):
     sites = np.repeat(kept.astype(object), n_t)
     t = np.tile(grid.times, n_c)
     reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, grid.met_units)
-    flagged = (np.asarray(reasons, str) != "").reshape(n_c, n_t)
+    flagged = (np.asarray(reasons, object) != "").reshape(n_c, n_t)  # no text array
     dvars = {}
     for name, v in values.items():
         unit, _, long_name = MET_VARIABLES[name]
@@ -551,6 +564,8 @@ def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue):
                        {"units": _UNIT_TEXT.get(unit, unit), "long_name": long_name})
     met = xr.Dataset(dvars, coords={"site": kept.tolist(), "time": grid.times})
     met["time"].attrs["long_name"] = "end of the hour (UTC)"
+    if with_reasons:
+        return met, _air_block(grid, ys, xs, keep, kept), flagged, reasons
     return met, _air_block(grid, ys, xs, keep, kept), flagged
 
 

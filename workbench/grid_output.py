@@ -20,7 +20,7 @@ import xarray as xr
 
 from . import __version__
 from .grid import DRY_SPECIES, compute_grid, default_block, make_periods, staged
-from .grid_io import describe, open_grid
+from .grid_io import block_catalogue, describe, open_grid, read_block
 from .landuse import LAND_USE
 from .runfolder import OutputError, RunFolder, os_error_message
 
@@ -37,6 +37,14 @@ def _attrs(name, grid, mapping) -> dict:
         a = {"units": "1", "long_name": "hours of the period whose met failed a plausibility "
              "check of the site reader (implausible values masked; docs/data_formats.md "
              "section 4)", "cell_methods": "time: sum"}
+    elif name == "met_missing_hours":
+        a = {"units": "1", "long_name": "hours of the period without a deposition velocity "
+             "from the cell's own met (a met value the engine needs is missing or was "
+             "masked: of that hour, or the previous hour's rain for the surface wetness, "
+             "unknown at the first hour of the record when it is dry): filled from the "
+             "cell's mean diurnal cycle where it has enough hours, else no Vd (NaN maps "
+             "when every hour is missing)",
+             "cell_methods": "time: sum"}
     elif name.startswith("flux_coverage_"):
         sp = name[len("flux_coverage_"):]
         a = {"units": "1", "long_name": f"share of the period's hours with a {sp} "
@@ -115,6 +123,95 @@ def _class_codes(classes) -> np.ndarray:
                     "int16").reshape(classes.shape)
 
 
+def flag_reasons(grid, j: int, i: int) -> dict:
+    """reason -> hours, of the plausibility flags of the met of cell (j, i) (the checks
+    of :func:`read_block`), worded for a grid: a site's ``utc_offset_h`` is the grid's
+    time coordinate."""
+    ys, xs = slice(j, j + 1), slice(i, i + 1)
+    cat = block_catalogue(grid, ys, xs)
+    if not len(cat):
+        return {}
+    reasons = read_block(grid, ys, xs, cat, with_reasons=True)[3]
+    out = {}
+    for text in reasons:
+        for part in str(text).split("; ") if text else ():
+            part = part.replace("check utc_offset_h and whether times label the start or "
+                                "the end of the hour", "check that the time coordinate is "
+                                "UTC and labels the end of the hour (or has time bounds)")
+            out[part] = out.get(part, 0) + 1
+    return dict(sorted(out.items(), key=lambda kv: -kv[1]))
+
+
+def flag_notes(path: Path, grid) -> list:
+    """A note on the met records that failed a plausibility check: how many, in how many
+    cells, and the reasons at the cell with the most (read again, one cell)."""
+    with xr.open_dataset(path) as ds:
+        flagged = ds["met_flagged_hours"].values.sum(axis=0)
+        ydim, xdim = grid.dims
+        ycoord = ds[ydim].values if ydim in ds.coords else np.arange(grid.shape[0])
+        xcoord = ds[xdim].values if xdim in ds.coords else np.arange(grid.shape[1])
+    total = np.nansum(flagged)
+    if not total > 0:
+        return []
+    j, i = np.unravel_index(np.nanargmax(flagged), flagged.shape)
+    reasons = flag_reasons(grid, int(j), int(i))
+    top = "; ".join(f"{n} h {text}" for text, n in list(reasons.items())[:3])
+    cells = int(np.nansum(flagged > 0))
+    return [f"{grid.paths['met'].name}: {int(total)} cell-hours in {cells} "
+            f"cell{'s' if cells != 1 else ''} failed a plausibility check (masked; counted in "
+            f"met_flagged_hours); of all the met hours of the cell with the most "
+            f"({ydim}={ycoord[j]:g} {xdim}={xcoord[i]:g}): {top}"]
+
+
+def missing_met_notes(path: Path, grid) -> list:
+    """Notes on the cells whose maps lack a Vd for want of met, or a deposition for want
+    of concentrations, read back from grid.nc.
+
+    Every cell with a class is counted: those with no Vd at any hour of any period
+    (NaN maps), those with a Vd but no concentration of a species in any period, and
+    those with some hours filled from their mean diurnal cycle.
+    """
+    with xr.open_dataset(path) as ds:
+        if "met_missing_hours" not in ds:
+            return []
+        miss = ds["met_missing_hours"].values.sum(axis=0)
+        vd = [ds[n].values for n in ds.data_vars if n.startswith("vd_")]
+        coverage = {n[len("flux_coverage_"):]: ds[n].values for n in ds.data_vars
+                    if n.startswith("flux_coverage_")}
+        ydim, xdim = grid.dims
+        ycoord = ds[ydim].values if ydim in ds.coords else np.arange(grid.shape[0])
+        xcoord = ds[xdim].values if xdim in ds.coords else np.arange(grid.shape[1])
+    has_class = np.array([c is not None for c in grid.classes.reshape(-1)]).reshape(grid.shape)
+    no_vd = has_class & (np.all([np.all(np.isnan(v), axis=0) for v in vd], axis=0) if vd
+                         else np.zeros(grid.shape, bool))
+    some = has_class & ~no_vd & (miss > 0)
+    notes = []
+    if no_vd.any():
+        j, i = np.nonzero(no_vd)
+        where = ", ".join(f"{ydim}={ycoord[a]:g} {xdim}={xcoord[b]:g}"
+                          for a, b in list(zip(j, i))[:3])
+        cls = sorted({str(c) for c in grid.classes[no_vd]})
+        notes.append(f"{grid.paths['met'].name}: {int(no_vd.sum())} of {int(has_class.sum())} "
+                     f"cells with a class ({', '.join(cls)}) have no met the engine can use "
+                     f"at any hour (a required variable missing, _FillValue or masked "
+                     f"throughout; e.g. {where}): no deposition velocity, NaN in their vd_, "
+                     "dry_ maps; counted in met_missing_hours")
+    no_air = {sp: int((has_class & ~no_vd & np.all(np.nan_to_num(c) == 0, axis=0)).sum())
+              for sp, c in coverage.items()}
+    no_air = {sp: n for sp, n in no_air.items() if n}
+    if no_air:
+        notes.append(f"{grid.paths['air'].name}: cells with a class and a Vd but no "
+                     "concentration in any period (dry_<species> NaN, flux_coverage_<species> "
+                     "0): " + ", ".join(f"{sp} {n}" for sp, n in no_air.items()))
+    if some.any():
+        n = int(some.sum())
+        notes.append(f"{grid.paths['met'].name}: {n} cell{' has' if n == 1 else 's have'} "
+                     "hours without usable met (met_missing_hours > 0, at most "
+                     f"{int(miss[some].max())} h): their Vd there is filled from the cell's "
+                     "mean diurnal cycle")
+    return notes
+
+
 def write_grid_netcdf(ds: xr.Dataset, path: Path):
     """Write (and compute, when lazy) the maps as NetCDF3 (scipy: no extra library)."""
     enc = {n: {"_FillValue": np.nan} for n in ds.data_vars if ds[n].dtype.kind == "f"}
@@ -146,15 +243,46 @@ def _cluster(workers=None, scheduler=None):
     if not (workers or scheduler):
         yield None
         return
+    import logging
     from .blocks import start_client
     client = start_client(workers, scheduler)
     try:
         yield client
     finally:
         cluster = client.cluster if not scheduler else None
-        client.close()
-        if cluster is not None:
-            cluster.close()
+        # a worker slow to stop on a busy machine is killed by its nanny after 4 s, which
+        # logs a WARNING that looked like a fault at the end of a good run: not shown
+        nanny = logging.getLogger("distributed.nanny")
+        level = nanny.level
+        nanny.setLevel(logging.ERROR)
+        try:
+            client.close()
+            if cluster is not None:
+                cluster.close()
+        finally:
+            nanny.setLevel(level)
+
+
+@contextlib.contextmanager
+def _terminate_as_interrupt():
+    """SIGTERM (a batch system's time limit, ``kill``) raises KeyboardInterrupt while a
+    grid runs, as Ctrl-C does: the run folder and its scratch copy (hundreds of MB for a
+    year of a large grid) are removed instead of left behind as ``.<out>.incomplete``.
+    Only where the default handler is in force, on the main thread."""
+    import signal
+    import threading
+
+    def on_term(signum, frame):
+        raise KeyboardInterrupt
+    if threading.current_thread() is not threading.main_thread() or \
+            signal.getsignal(signal.SIGTERM) is not signal.SIG_DFL:
+        yield
+        return
+    before = signal.signal(signal.SIGTERM, on_term)
+    try:
+        yield
+    finally:
+        signal.signal(signal.SIGTERM, before)
 
 
 def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
@@ -193,7 +321,8 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
         import importlib.util
         use_dask = importlib.util.find_spec("dask") is not None
     started = _dt.datetime.now(_dt.timezone.utc)
-    with RunFolder(out, {"scenario": sc.path, **paths}, overwrite, say=say) as folder, \
+    with _terminate_as_interrupt(), \
+            RunFolder(out, {"scenario": sc.path, **paths}, overwrite, say=say) as folder, \
             _cluster(workers, scheduler) as client:
         grid = open_grid(paths["met"], paths["air"], paths["land_use"])
         say(describe(grid))
@@ -230,6 +359,10 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
             except OSError as exc:
                 raise OutputError(os_error_message(exc, target) + "; nothing was written "
                                   "into the output folder") from exc
+            flags = flag_notes(target, grid)      # the scratch copy, if any, still here
+        grid.notes.extend(missing := flags + missing_met_notes(target, grid))
+        for note in missing:
+            say(f"note: {note}")
         try:
             prov["outputs"] = [GRID_FILE, "provenance.json"]
             prov["notes"] = grid.notes

@@ -256,8 +256,12 @@ def block_major(grid, layout, folder=None, say=None):
                 if made is None:
                     made = Path(tempfile.mkdtemp(prefix="workbench-gridcopy-", dir=folder))
                 n_t = raw.sizes["time"]
-                files = {}
-                for name in copy:
+            files = {}
+            for name in copy:
+                # the file opened anew for each variable: the HDF5 chunk cache of a
+                # variable (up to 64 MB by default, useless here: each chunk is read
+                # once) is freed with it, so the copy holds one variable's, not all
+                with _open(path, role) as raw:
                     step = chunk_shape(raw[name], grid.dims)[0]
                     files[name] = _copy_variable(raw, name, grid.dims, flat, n_t, step, path,
                                                  made / f"{role}.{name}.bin")

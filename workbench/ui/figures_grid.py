@@ -53,7 +53,7 @@ def grid_map_spec(ds, variable: str = "dry_N", period: int | str = 0) -> dict:
     dict
         ``{"data": [heatmap], "layout": {...}}``.
     """
-    if variable not in ds:
+    if variable not in ds or ds[variable].ndim != 3:   # land_use: a map without periods
         raise ValueError(f"{variable!r} is not in the grid output; choose one of "
                          + ", ".join(v for v in ds.data_vars if ds[v].ndim == 3))
     labels = [str(v) for v in ds["period"].values]
