@@ -81,7 +81,8 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         self.years = tuple(years) if years else (first, last)
         self.progress = progress or Progress()
         site = site or session.sites[0]
-        self.site_w = widgets.Dropdown(options=session.sites, value=site, description="site")
+        self.site_w = widgets.Dropdown(options=session.site_options(), value=site,
+                                       description="site")
         self.receptor_w = widgets.Dropdown(options=session.receptors(site), description="receptor")
         self.year_w = widgets.Dropdown(options=[], description="year")
         pct = dict(min=0, max=100, step=5, continuous_update=False, style={"description_width": "150px"},

@@ -67,9 +67,10 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         self.settings: Settings = session.baseline
         first, last = session.years
         site = site or session.sites[0]
-        years = tuple(years) if years else (last, last)
+        years = tuple(years) if years else (session.site_years(site)[1],) * 2
         self.progress = progress or Progress()
-        self.site_w = widgets.Dropdown(options=session.sites, value=site, description="site")
+        self.site_w = widgets.Dropdown(options=session.site_options(), value=site,
+                                       description="site")
         self.receptor_w = widgets.Dropdown(options=session.receptors(site), description="receptor")
         self.years_w = widgets.IntRangeSlider(value=years, min=first, max=last, description="years",
                                               continuous_update=False,
@@ -130,6 +131,11 @@ class SensitivityExplorer(SavedText, widgets.VBox):
     def _on_site(self, change):
         self.receptor_w.options = self.session.receptors(self.site_w.value)
         self.receptor_w.value = self.receptor_w.options[0]
+        # years outside the site's record (opened late, closed early): moved inside it
+        years, moved = self.session.years_for(self.site_w.value, self.years_w.value)
+        if moved:
+            self.years_w.value = years
+            self.progress.step(moved, 0.0)
 
     def _stale(self, change=None):
         """A control of the sweep changed after the last sweep: the figure stays as it
