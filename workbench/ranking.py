@@ -103,8 +103,9 @@ def ranking(span: pd.DataFrame, element: str, n_periods=None, sites=None,
         if "missing_components" in e \
         else pd.Series("", index=e.index)
     v = e[value].astype(float)
-    full = e["status"].astype(str).isin(FULL_SET) & np.isfinite(v)
-    part = (e["status"].astype(str) == "partial") & np.isfinite(v)
+    full = e["status"].astype(str).isin(FULL_SET) & np.isfinite(v) & (miss.str.strip() == "")
+    part = ((e["status"].astype(str) == "partial") | e["status"].astype(str).isin(FULL_SET)) \
+        & np.isfinite(v) & ~full    # a flagged span row without NH3 is partial too
     e["group"] = np.where(full, EVERY_COMPONENT,
                           np.where(part, "partial: without " + miss.str.split().str.join(", "),
                                    NO_TOTAL))

@@ -30,6 +30,7 @@ def test_thirty_sites_each_look_different_and_the_legend_lists_sites_once():
     assert any("open marker: partial or flagged" in a.text for a in fig.layout.annotations)
     # the legend of 30 names fits the figure
     assert fig.layout.height >= figures.legend_height(31)
+    assert fig.layout.legend.tracegroupgap == 0       # each site is a legend group
 
 
 def test_few_sites_keep_their_open_marker_entries():
@@ -49,3 +50,16 @@ def test_thirty_ranked_sites_are_all_named():
     assert len(labels) == 30
     assert list(fig.layout.yaxis.tickvals) == labels      # every bar named, none skipped
     assert fig.layout.height >= figures.RANK_BAR_PX * 30
+
+
+def test_a_flagged_span_total_without_a_component_is_ranked_apart():
+    """One site without NH3 (not measured), one year flagged: its whole-span N row is
+    'flagged' with missing_components 'NH3', and the overview ranked it under "every
+    component" and said "every site has a whole-span total holding every component"."""
+    from workbench.ui.summaries import network_ranking
+    span = pd.DataFrame({"site": ["a", "b"], "element": "N", "flux_kg_ha_yr": [13.2, 20.0],
+                         "status": ["flagged", "flagged"], "missing_components": ["NH3", ""],
+                         "years_used": "2020 2021"})
+    r = network_ranking(span, "N")
+    assert dict(zip(r["site"], r["group"])) == {"b": "every component",
+                                                "a": "partial: without NH3"}

@@ -56,3 +56,18 @@ def test_sensitivity_and_sobol_move_the_years_too(session):
         sob = SobolExplorer(session, site="v01", years=(2018, 2018), run=False)
         sob.site_w.value = "v02"
     assert sens.years_w.value == (2017, 2017) and sob.years_w.value == (2017, 2017)
+
+
+def test_network_overview_names_a_listed_site_without_data(tmp_path):
+    """The 30-site network lists v30 with no row anywhere: the overview drew 29 sites
+    and said nothing of the 30th."""
+    from workbench.ui.apps import NetworkOverview
+    from workbench.ui.session import Session
+    sc = make_analyst_network(tmp_path / "in", n_sites=2, years=1,
+                              imperfections={"no_data": 1})
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        s = Session.open(sc)
+        assert s.sites == ["v01"] and s.sites_without_data() == ["v02"]
+        net = NetworkOverview(s)
+    assert "Not computed" in net.apart_w.value and "v02" in net.apart_w.value

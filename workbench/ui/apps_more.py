@@ -280,6 +280,15 @@ class NetworkOverview(SavedText, widgets.VBox):
         self.figure_export = FigureExport(lambda: self.figs, "network")
         self.children = (*self.children, self.figure_export)
 
+    def _no_data_html(self) -> str:
+        """The sites of sites.toml without any input row: named, not silently left out
+        (30 sites listed, 29 drawn)."""
+        none = self.session.sites_without_data()
+        if not none:
+            return ""
+        return ("<p><b>Not computed</b> (listed in sites.toml, no precipitation, air or met "
+                f"row): {html.escape(', '.join(none))}</p>")
+
     def table(self, unit=None) -> pd.DataFrame:
         """Annual totals of every site on its own surface (see :func:`network_table`)."""
         unit = unit or self.unit_w.value
@@ -334,4 +343,5 @@ class NetworkOverview(SavedText, widgets.VBox):
         if create:
             self.apart_w = widgets.HTML()
         self.apart_w.value = ("<b>Ranked apart (partial: without a component) or not ranked "
-                              "(no year passes completeness)</b>" + text)
+                              "(no year passes completeness)</b>" + text
+                              + self._no_data_html())

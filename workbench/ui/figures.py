@@ -440,6 +440,9 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
                       template=template, legend_title="site",
                       height=legend_height(len(sites) + 1) if many else HEIGHT)
     if many:
+        # one legend group per site: plotly's 10 px gap between groups made 30 entries
+        # half as tall again as the room for them (a scroll bar after 22 sites)
+        fig.update_layout(legend_tracegroupgap=0)
         fig.add_annotation(text="○ open marker: partial or flagged, not ranked",
                            xref="paper", yref="paper", x=0, y=0, yshift=-50,
                            showarrow=False, xanchor="left", yanchor="top",

@@ -105,6 +105,11 @@ class Session:
                 have |= set(np.unique(ds["site"].values.astype(str)))
         return [s for s in inp.catalogue.ids if s in have]
 
+    def sites_without_data(self) -> list:
+        """Sites of sites.toml without a precipitation, air or met row (not computed)."""
+        have = set(self.sites)
+        return [s for s in self.study.inputs.catalogue.ids if s not in have]
+
     def site_options(self) -> list:
         """``(label, id)`` of :attr:`sites` for a dropdown: the id and the site's name
         from sites.toml (thirty bare ids read alike)."""
