@@ -74,3 +74,25 @@ def test_idle_factors_text_without_a_known_reason():
     assert idle_factors_text(tor, comps) == ("No effect on any total of this site and these "
                                              "years (index 0, no bar): vd_NO2, air_conc.")
     assert idle_factors_text(tor.iloc[:1], comps) == ""
+
+
+def test_critical_loads_never_say_no_exceedance_of_a_partial_deposition(tmp_path):
+    """Without NH3 the N deposition is a lower bound: the statement said "There is no
+    acidity exceedance." under a line saying "not determined" (v06 of the analyst
+    network in the browser)."""
+    import re
+
+    from workbench.ui.apps_analysis import CriticalLoadsExplorer
+    sc = write_gap_site(tmp_path / "gap")
+    toml = sc.parent / "sites.toml"
+    text = toml.read_text()
+    for key in ("cl_max_s", "cl_max_n", "cl_nut_n"):             # loads far above it
+        text = re.sub(rf"^{key} = .*$", f"{key} = 90000.0", text, flags=re.M)
+    toml.write_text(text)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = CriticalLoadsExplorer.from_scenario(sc, site="ridge")
+    assert "There is no" not in app.statement
+    assert "No acidity exceedance of the deposition as measured, which is partial" \
+        in app.statement
+    assert "not determined" in app.exceedance_words

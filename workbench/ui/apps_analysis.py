@@ -243,8 +243,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         self.status_note = status_note(self.result.years, *sel.values())
         lower = lower_bound(self.result.years, *sel.values())
         if lower:
-            self.statement += (" The deposition is partial (a lower bound), so the cuts "
-                               "needed may be larger.")
+            self.statement = partial_statement(self.statement)
         self.exceedance_words = (
             "acidity exceedance " + exceedance_words(float(ex.exceedance), lower,
                                                      REGIONS[int(ex.region)])
@@ -385,3 +384,17 @@ def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":
                        exceedance_status="no critical loads")
         rows.append(row)
     return pd.DataFrame(rows)
+
+
+def partial_statement(statement: str) -> str:
+    """The what-if `statement` of a partial deposition (a lower bound): "There is no
+    acidity exceedance." said plainly contradicted the line above it ("not determined")
+    and the Monte Carlo probability of exceedance beside it; it becomes "no exceedance
+    of the deposition as measured", and a closing sentence says the cuts may be larger."""
+    for name in ("acidity", "nutrient-N"):
+        statement = statement.replace(
+            f"There is no {name} exceedance.",
+            f"No {name} exceedance of the deposition as measured, which is partial: not "
+            "determined (the whole deposition may exceed).")
+    return statement + (" The deposition is partial (a lower bound), so the cuts needed may "
+                        "be larger.")
