@@ -31,6 +31,9 @@ def test_unmeasured_nh3_is_said_not_measured(gap_app):
     total = _trace(gap_app, "total")
     assert "not measured at the site: NH3" in total.customdata[1]
     assert "not measured at this site" in gap_app.nh3_w.value
+    # the bracket says which member is missing, not "budget.nc's bracket_*_note says"
+    assert "bracket not computed for these years (NH3 not measured at the site)" \
+        in gap_app.bracket_w.value
 
 
 def test_bulk_caught_particles_are_named_in_the_wet(gap_app):
