@@ -36,6 +36,11 @@ def test_site_explorer_moves_the_years_into_the_new_sites_record(session):
         app = SiteExplorer(session, site="v01", years=(2018, 2018))
         labels = dict((v, k) for k, v in app.site_w.options)
         assert labels["v01"].startswith("v01 · ") and len(labels["v01"]) > 8
+        # wide enough for the longest name ("ridge · Tarnwick Ridge plantatio" was cut)
+        from workbench.ui.controls import DROPDOWN_FRAME_PX, OPTION_CHAR_PX
+        longest = max(len(k) for k, _ in app.site_w.options)
+        assert int(app.site_w.layout.width.removesuffix("px")) >= min(
+            520, DROPDOWN_FRAME_PX + OPTION_CHAR_PX * longest)
         app.site_w.value = "v02"
     assert app.years == (2017, 2017)
     assert list(app.result.years["period"].values) == ["2017"]

@@ -14,6 +14,7 @@ import html
 import ipywidgets as widgets
 import pandas as pd
 
+from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh)
 from .figures_sensitivity import sensitivity_figure
@@ -61,6 +62,7 @@ class SobolExplorer(SavedText, widgets.VBox):
         self.progress = progress or Progress()
         self.site_w = widgets.Dropdown(options=session.site_options(), value=site,
                                        description="site")
+        fit_options_width(self.site_w)          # names whole: "v01 · Brackwick plantation"
         recs = session.receptors(site)
         self.receptor_w = widgets.Dropdown(options=recs, value=receptor or recs[0],
                                            description="receptor")

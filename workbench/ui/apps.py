@@ -16,6 +16,7 @@ import ipywidgets as widgets
 
 from . import figures, figures_dry, figures_wet
 from .assumptions import ASSUMPTIONS, Settings
+from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, make_control,
                        open_with_progress, refresh, set_quietly, table_html, wrap_labels_style)
 from .scheme_tab import SchemeTab
@@ -94,6 +95,7 @@ class SiteExplorer(SavedText, widgets.VBox):
         self.progress = progress or Progress()
         self.site_w = widgets.Dropdown(options=session.site_options(), value=site,
                                        description="site")
+        fit_options_width(self.site_w)          # names whole: "v01 · Brackwick plantation"
         self.receptor_w = widgets.Dropdown(options=session.receptors(site), description="receptor")
         self.years_w = widgets.IntRangeSlider(value=years, min=first, max=last, step=1,
                                               description="years", continuous_update=False,

@@ -13,6 +13,7 @@ from ..analysis.exceedance import (REGIONS, acidity_exceedance, not_determined,
                                    nutrient_n_exceedance)
 from ..analysis.trends import MIN_YEARS
 from ..analysis.whatif import GROUP_TEXT, GROUPS, MODES, group_deposition, path_table, plain_statement
+from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh, table_html)
 from .figures_analysis import clf_spec
@@ -83,6 +84,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         site = site or session.sites[0]
         self.site_w = widgets.Dropdown(options=session.site_options(), value=site,
                                        description="site")
+        fit_options_width(self.site_w)          # names whole: "v01 · Brackwick plantation"
         self.receptor_w = widgets.Dropdown(options=session.receptors(site), description="receptor")
         self.year_w = widgets.Dropdown(options=[], description="year")
         pct = dict(min=0, max=100, step=5, continuous_update=False, style={"description_width": "150px"},

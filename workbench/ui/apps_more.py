@@ -10,6 +10,7 @@ import pandas as pd
 from ..ranking import EVERY_COMPONENT
 from . import figures
 from .assumptions import ASSUMPTIONS, Settings
+from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh, table_html, wrap_labels_style)
 from .session import Session
@@ -71,6 +72,7 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         self.progress = progress or Progress()
         self.site_w = widgets.Dropdown(options=session.site_options(), value=site,
                                        description="site")
+        fit_options_width(self.site_w)          # names whole: "v01 · Brackwick plantation"
         self.receptor_w = widgets.Dropdown(options=session.receptors(site), description="receptor")
         self.years_w = widgets.IntRangeSlider(value=years, min=first, max=last, description="years",
                                               continuous_update=False,

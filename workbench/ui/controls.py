@@ -534,3 +534,18 @@ def fit_descriptions(root):
         if text in cut_descriptions(w) and not getattr(w, "children", None):
             w.style.description_width = "initial"
     return root
+
+
+#: Width of a dropdown's text per character [px] (13 px font, common practice for
+#: JupyterLab's sans-serif) and of its label and arrow [px]; ipywidgets' default
+#: dropdown is 300 px wide, label included, and cut "ridge · Tarnwick Ridge plantation".
+OPTION_CHAR_PX, DROPDOWN_FRAME_PX, DROPDOWN_DEFAULT_PX = 8, 110, 300
+
+
+def fit_options_width(w, most_px=520):
+    """Widen dropdown `w` so that its longest option shows whole (at most `most_px`)."""
+    longest = max((len(str(o)) for o in w.options), default=0)
+    need = min(most_px, DROPDOWN_FRAME_PX + OPTION_CHAR_PX * longest)
+    if need > DROPDOWN_DEFAULT_PX:
+        w.layout.width = f"{need}px"
+    return w
