@@ -63,3 +63,21 @@ def test_a_flagged_span_total_without_a_component_is_ranked_apart():
     r = network_ranking(span, "N")
     assert dict(zip(r["site"], r["group"])) == {"b": "every component",
                                                 "a": "partial: without NH3"}
+
+
+def test_a_tall_figure_is_exported_at_its_own_height(monkeypatch, tmp_path):
+    """The exported 30-site ranking was 520 px high: its labels ran into each other."""
+    import kaleido  # noqa: F401    (the export path checks for it)
+
+    from workbench.ui import export
+    sizes = []
+    monkeypatch.setattr(export, "_write_image",
+                        lambda fig, path, fmt, w, h: sizes.append((w, h)))
+    span = pd.DataFrame({"site": [f"s{i:02d}" for i in range(30)], "element": "N",
+                         "flux_kg_ha_yr": np.linspace(30, 5, 30), "status": "complete",
+                         "missing_components": "", "years_used": "2024 2025"})
+    from workbench.ui.summaries import network_ranking
+    fig = figures.network_ranking_bars(network_ranking(span, "N"), "N")
+    export.export_figure(fig, tmp_path / "r.png")
+    export.export_figure(figures.network_totals(_table(3)), tmp_path / "t.png")
+    assert sizes == [(export.WIDTH, fig.layout.height), (export.WIDTH, export.HEIGHT)]
