@@ -22,6 +22,24 @@ SPECIES_OF_KEY = {"dry.nh3_treatment": "NH3"}
 SPLIT_INTO = {"all_gas": 0, "all_particle": 1}
 
 
+#: Starts of the budget's component notes (``note`` of budget.nc) that say why a
+#: component has no bar: the species is not measured at the site, or its dry
+#: deposition is counted in a bulk collector's wet ion (docs/budget.md).
+NOT_MEASURED = "not measured"
+IN_BULK_WET = "caught by the bulk collector"
+
+
+def component_reason(note) -> str:
+    """Short reason of a component without its own bar: ``"not measured"``, ``"in the
+    bulk wet"`` or ``""`` (none of the two), from the budget's component `note`."""
+    note = str(note or "")
+    if note.startswith(NOT_MEASURED):
+        return "not measured"
+    if note.startswith(IN_BULK_WET):
+        return "in the bulk wet"
+    return ""
+
+
 def _species_of(key: str) -> str | None:
     """The one species an assumption acts on, or None (it acts on several or none)."""
     parts = key.split(".")
@@ -200,7 +218,6 @@ def idle_factors_text(tornado: pd.DataFrame, components: pd.DataFrame) -> str:
     """
     import numpy as np
 
-    from .summaries import component_reason
     if tornado is None or not len(tornado):
         return ""
     moved = (~np.isclose(tornado["output_low"], tornado["output_base"], rtol=1e-9, atol=0)

@@ -13,6 +13,7 @@ import xarray as xr
 from ..periods import MONTH_SEASON, SEASON_NAMES
 from ..units import element_deposition_in
 from .no_effect import PARTICLES, no_effect_text  # noqa: F401  (its home before)
+from .no_effect import IN_BULK_WET, NOT_MEASURED, component_reason  # noqa: F401
 
 #: Reported units: label -> (deposition unit key of
 #: :func:`workbench.units.element_deposition_in`, axis text of a yearly rate, axis text
@@ -127,24 +128,6 @@ def component_rates(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr
         "completeness": pick("completeness").reshape(-1),
         "note": (pick("note").reshape(-1).astype(str) if "note" in ds.variables
                  else np.full(n_p * n_c, "", dtype=object))})
-
-
-#: Starts of the budget's component notes (``note`` of budget.nc) that say why a
-#: component has no bar: the species is not measured at the site, or its dry
-#: deposition is counted in a bulk collector's wet ion (docs/budget.md).
-NOT_MEASURED = "not measured"
-IN_BULK_WET = "caught by the bulk collector"
-
-
-def component_reason(note) -> str:
-    """Short reason of a component without its own bar: ``"not measured"``, ``"in the
-    bulk wet"`` or ``""`` (none of the two), from the budget's component `note`."""
-    note = str(note or "")
-    if note.startswith(NOT_MEASURED):
-        return "not measured"
-    if note.startswith(IN_BULK_WET):
-        return "in the bulk wet"
-    return ""
 
 
 def total_rates(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -> pd.DataFrame:
