@@ -350,6 +350,13 @@ def test_sensitivity_in_a_real_browser(lab, token, page, tmp_path):
         "() => [...document.querySelectorAll('.jp-OutputArea .js-plotly-plot .shapelayer path')]"
         ".map(p => parseFloat(getComputedStyle(p).strokeWidth))")
     assert widths and all(w > 0 for w in widths), widths
+    # every control label whole, the Sobol part included ("base samples" read "base sam...")
+    page.wait_for_selector(".jp-OutputArea .widget-dropdown label")
+    cut = page.evaluate("() => [...document.querySelectorAll('.jp-OutputArea .widget-label,"
+                        " .jp-OutputArea .widget-dropdown label')]"
+                        ".filter(l => l.offsetParent && l.scrollWidth > l.clientWidth + 1)"
+                        ".map(l => l.innerText)")
+    assert cut == [], cut
     _screenshot(page, tmp_path, "sensitivity")
     _close_sessions(lab, token)
 

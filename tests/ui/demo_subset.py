@@ -75,3 +75,30 @@ def study_and_args(scenario_file):
     args = (o["wet"], o["dry"], o["budget"], sc.fixed_velocity, p["resolution"], p["start"],
             p["end"])
     return prepare(sc).study, args
+
+
+def write_gap_site(out_dir, site="ridge", year=2021, drop=("NH3 [ug/m3]", "method_NH3"),
+                   collector="bulk") -> Path:
+    """One demo site and year whose air file lacks the columns `drop` (a species not
+    measured at all) and whose precipitation comes from a `collector` ("bulk": the
+    budget's ``bulk_correction`` of the demo scenario applies).  Returns the scenario."""
+    import re
+    sc = write_demo_subset(out_dir, (site,), year, year)
+    out = sc.parent
+    text = (out / "sites.toml").read_text(encoding="utf-8")
+    blocks = text.split("[[site]]")
+    keep = [b for b in blocks[1:] if re.search(rf'^id = "{site}"', b, re.M)]
+    body = re.sub(r'^collector = ".*"$', f'collector = "{collector}"', keep[0], flags=re.M)
+    (out / "sites.toml").write_text(blocks[0] + "[[site]]" + body, encoding="utf-8")
+    lines = (out / "air.csv").read_text(encoding="utf-8").splitlines(keepends=True)
+    rows, idx = [], None
+    for ln in lines:
+        if ln.startswith("#") or not ln.strip():
+            rows.append(ln)
+            continue
+        cells = ln.rstrip("\n").split(",")
+        if idx is None:
+            idx = {cells.index(c) for c in drop if c in cells}
+        rows.append(",".join(c for j, c in enumerate(cells) if j not in idx) + "\n")
+    (out / "air.csv").write_text("".join(rows), encoding="utf-8")
+    return sc

@@ -52,3 +52,22 @@ def test_vd_map_in_cm_per_s(out):
 def test_unknown_variable(out):
     with pytest.raises(ValueError, match="dry_S.*choose one of dry_N, vd_SO2"):
         grid_map_spec(out, "dry_S")
+
+
+def test_demo_grid_shown_instead_of_a_scenario_without_grid_says_so(out, monkeypatch,
+                                                                     tmp_path):
+    """A site network's scenario in the grid notebook: the maps were the invented demo
+    grid under titles that read as the scenario's own (one printed line above said so)."""
+    import workbench.grid_demo
+    from ui.demo_subset import write_demo_subset
+    from workbench.ui.figures_grid import open_maps
+    asked = []
+    monkeypatch.setattr(workbench.grid_demo, "open_run",
+                        lambda sc=None, **kw: asked.append(sc) or out.copy())
+    sc = write_demo_subset(tmp_path, ("ridge",), 2021, 2021)        # no [grid] section
+    maps = open_maps(sc)
+    assert asked == [None]                                          # the demo grid ran
+    title = grid_map_spec(maps, "dry_N", 0)["layout"]["title"]["text"]
+    assert "invented demo grid" in title and "has no [grid] section" in title
+    plain = grid_map_spec(open_maps(None), "dry_N", 0)["layout"]["title"]["text"]
+    assert "demo grid" not in plain

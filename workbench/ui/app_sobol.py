@@ -9,10 +9,12 @@ line of the app keeps the counts of the last analysis.
 from __future__ import annotations
 
 import dataclasses
+import html
 
 import ipywidgets as widgets
 import pandas as pd
 
+from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh)
 from .figures_sensitivity import sensitivity_figure
@@ -55,10 +57,12 @@ class SobolExplorer(SavedText, widgets.VBox):
         self.settings = session.baseline
         first, last = session.years
         site = site or session.sites[0]
-        years = tuple(years) if years else (last, last)
+        years = tuple(years) if years else (session.site_years(site)[1],) * 2
         opt = session.scenario.options["sensitivity"]
         self.progress = progress or Progress()
-        self.site_w = widgets.Dropdown(options=session.sites, value=site, description="site")
+        self.site_w = widgets.Dropdown(options=session.site_options(), value=site,
+                                       description="site")
+        fit_options_width(self.site_w)          # names whole: "v01 · Brackwick plantation"
         recs = session.receptors(site)
         self.receptor_w = widgets.Dropdown(options=recs, value=receptor or recs[0],
                                            description="receptor")
@@ -80,6 +84,7 @@ class SobolExplorer(SavedText, widgets.VBox):
             f"({', '.join(opt.factors)}).</p>")
         self.sobol = pd.DataFrame()
         self.tornado = pd.DataFrame()
+        self.idle_w = widgets.HTML("")       # factors without effect here, and why
         self.shown = None      # (site, receptor, years) of the last analysis
         self.fig = figure_widget(self._figure())
         self.site_w.observe(self._on_site, "value")
@@ -96,7 +101,9 @@ class SobolExplorer(SavedText, widgets.VBox):
                           caution_box(),
                           head, widgets.HBox([self.output_w, self.year_w, self.samples_w]),
                           widgets.HBox([self.run_w, self.progress]), self.note_w, self.bar_w,
-                          self.fig])
+                          self.idle_w, self.fig])
+        from .controls import fit_descriptions
+        fit_descriptions(self)                # "base samples" was cut to "base sam..."
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
         self.figure_export = FigureExport(lambda: {"indices": self.fig}, "sobol")
         self.children = (*self.children, self.figure_export)
@@ -106,6 +113,11 @@ class SobolExplorer(SavedText, widgets.VBox):
     def _on_site(self, change):
         self.receptor_w.options = self.session.receptors(self.site_w.value)
         self.receptor_w.value = self.receptor_w.options[0]
+        # years outside the site's record (opened late, closed early): moved inside it
+        years, moved = self.session.years_for(self.site_w.value, self.years_w.value)
+        if moved:
+            self.years_w.value = years
+            self.progress.step(moved, 0.0)
 
     def _stale(self, change=None):
         """A control of the analysis changed after the last run: the figure keeps the
@@ -128,6 +140,14 @@ class SobolExplorer(SavedText, widgets.VBox):
 
     def _draw(self):
         refresh(self.fig, self._figure())
+
+    def _idle_text(self, site, rec, y0, y1) -> str:
+        """Which factors moved nothing at this site and why (a species not measured, a
+        particle caught by a bulk collector): their bars are empty, not small."""
+        from .no_effect import idle_factors_text
+        from .summaries import component_rates
+        res = self.session.run(self.settings, site, y0, y1, "year", rec)
+        return idle_factors_text(self.tornado, component_rates(res.years, site, rec))
 
     def run(self):
         """Compute the indices and the tornado of the chosen site, receptor and years."""
@@ -158,6 +178,7 @@ class SobolExplorer(SavedText, widgets.VBox):
         self.tornado = S.tornado(study, base, opt, kw,
                                  counted("engine runs for the tornado", (0.8, 1.0)))
         self.shown = (site, rec, (y0, y1))
+        self.idle_w.value = html.escape(self._idle_text(site, rec, y0, y1))
         years = sorted(set(self.sobol["period"].astype(str))) or [str(y1)]
         self.year_w.options = years
         self.year_w.value = years[-1]

@@ -16,6 +16,7 @@ import ipywidgets as widgets
 
 from . import figures, figures_dry, figures_wet
 from .assumptions import ASSUMPTIONS, Settings
+from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, make_control,
                        open_with_progress, refresh, set_quietly, table_html, wrap_labels_style)
 from .scheme_tab import SchemeTab
@@ -90,9 +91,11 @@ class SiteExplorer(SavedText, widgets.VBox):
         sites = session.sites
         site = site or sites[0]
         first, last = session.years
-        years = tuple(years) if years else (last, last)
+        years = tuple(years) if years else (session.site_years(site)[1],) * 2
         self.progress = progress or Progress()
-        self.site_w = widgets.Dropdown(options=sites, value=site, description="site")
+        self.site_w = widgets.Dropdown(options=session.site_options(), value=site,
+                                       description="site")
+        fit_options_width(self.site_w)          # names whole: "v01 · Brackwick plantation"
         self.receptor_w = widgets.Dropdown(options=session.receptors(site), description="receptor")
         self.years_w = widgets.IntRangeSlider(value=years, min=first, max=last, step=1,
                                               description="years", continuous_update=False,
@@ -385,8 +388,13 @@ class SiteExplorer(SavedText, widgets.VBox):
         for k, a in ASSUMPTIONS.items():
             if k.startswith("site."):
                 set_quietly(self.controls[k], a.get(self.settings, self.site), self._on_control)
+        years, moved = self.session.years_for(self.site, self.years)
+        if moved:
+            set_quietly(self.years_w, years, self._on_years)
         self._totals = None
         self.recompute("new site: computing its deposition velocities")
+        if moved:
+            self.change_w.value += html.escape(f" — {moved}")
 
     def _on_years(self, change):
         self._totals = None

@@ -13,6 +13,7 @@ from ..analysis.exceedance import (REGIONS, acidity_exceedance, not_determined,
                                    nutrient_n_exceedance)
 from ..analysis.trends import MIN_YEARS
 from ..analysis.whatif import GROUP_TEXT, GROUPS, MODES, group_deposition, path_table, plain_statement
+from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh, table_html)
 from .figures_analysis import clf_spec
@@ -81,7 +82,9 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         self.years = tuple(years) if years else (first, last)
         self.progress = progress or Progress()
         site = site or session.sites[0]
-        self.site_w = widgets.Dropdown(options=session.sites, value=site, description="site")
+        self.site_w = widgets.Dropdown(options=session.site_options(), value=site,
+                                       description="site")
+        fit_options_width(self.site_w)          # names whole: "v01 · Brackwick plantation"
         self.receptor_w = widgets.Dropdown(options=session.receptors(site), description="receptor")
         self.year_w = widgets.Dropdown(options=[], description="year")
         pct = dict(min=0, max=100, step=5, continuous_update=False, style={"description_width": "150px"},
@@ -242,8 +245,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         self.status_note = status_note(self.result.years, *sel.values())
         lower = lower_bound(self.result.years, *sel.values())
         if lower:
-            self.statement += (" The deposition is partial (a lower bound), so the cuts "
-                               "needed may be larger.")
+            self.statement = partial_statement(self.statement)
         self.exceedance_words = (
             "acidity exceedance " + exceedance_words(float(ex.exceedance), lower,
                                                      REGIONS[int(ex.region)])
@@ -384,3 +386,17 @@ def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":
                        exceedance_status="no critical loads")
         rows.append(row)
     return pd.DataFrame(rows)
+
+
+def partial_statement(statement: str) -> str:
+    """The what-if `statement` of a partial deposition (a lower bound): "There is no
+    acidity exceedance." said plainly contradicted the line above it ("not determined")
+    and the Monte Carlo probability of exceedance beside it; it becomes "no exceedance
+    of the deposition as measured", and a closing sentence says the cuts may be larger."""
+    for name in ("acidity", "nutrient-N"):
+        statement = statement.replace(
+            f"There is no {name} exceedance.",
+            f"No {name} exceedance of the deposition as measured, which is partial: not "
+            "determined (the whole deposition may exceed).")
+    return statement + (" The deposition is partial (a lower bound), so the cuts needed may "
+                        "be larger.")

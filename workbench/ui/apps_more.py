@@ -10,6 +10,7 @@ import pandas as pd
 from ..ranking import EVERY_COMPONENT
 from . import figures
 from .assumptions import ASSUMPTIONS, Settings
+from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh, table_html, wrap_labels_style)
 from .session import Session
@@ -67,9 +68,11 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         self.settings: Settings = session.baseline
         first, last = session.years
         site = site or session.sites[0]
-        years = tuple(years) if years else (last, last)
+        years = tuple(years) if years else (session.site_years(site)[1],) * 2
         self.progress = progress or Progress()
-        self.site_w = widgets.Dropdown(options=session.sites, value=site, description="site")
+        self.site_w = widgets.Dropdown(options=session.site_options(), value=site,
+                                       description="site")
+        fit_options_width(self.site_w)          # names whole: "v01 · Brackwick plantation"
         self.receptor_w = widgets.Dropdown(options=session.receptors(site), description="receptor")
         self.years_w = widgets.IntRangeSlider(value=years, min=first, max=last, description="years",
                                               continuous_update=False,
@@ -130,6 +133,11 @@ class SensitivityExplorer(SavedText, widgets.VBox):
     def _on_site(self, change):
         self.receptor_w.options = self.session.receptors(self.site_w.value)
         self.receptor_w.value = self.receptor_w.options[0]
+        # years outside the site's record (opened late, closed early): moved inside it
+        years, moved = self.session.years_for(self.site_w.value, self.years_w.value)
+        if moved:
+            self.years_w.value = years
+            self.progress.step(moved, 0.0)
 
     def _stale(self, change=None):
         """A control of the sweep changed after the last sweep: the figure stays as it
@@ -274,6 +282,15 @@ class NetworkOverview(SavedText, widgets.VBox):
         self.figure_export = FigureExport(lambda: self.figs, "network")
         self.children = (*self.children, self.figure_export)
 
+    def _no_data_html(self) -> str:
+        """The sites of sites.toml without any input row: named, not silently left out
+        (30 sites listed, 29 drawn)."""
+        none = self.session.sites_without_data()
+        if not none:
+            return ""
+        return ("<p><b>Not computed</b> (listed in sites.toml, no precipitation, air or met "
+                f"row): {html.escape(', '.join(none))}</p>")
+
     def table(self, unit=None) -> pd.DataFrame:
         """Annual totals of every site on its own surface (see :func:`network_table`)."""
         unit = unit or self.unit_w.value
@@ -328,4 +345,5 @@ class NetworkOverview(SavedText, widgets.VBox):
         if create:
             self.apart_w = widgets.HTML()
         self.apart_w.value = ("<b>Ranked apart (partial: without a component) or not ranked "
-                              "(no year passes completeness)</b>" + text)
+                              "(no year passes completeness)</b>" + text
+                              + self._no_data_html())

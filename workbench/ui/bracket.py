@@ -87,11 +87,27 @@ def bracket_line(years: xr.Dataset, derived, site, receptor, unit="kg/ha/yr",
              "all_particle": "pairs all as particle"}.get(split, split)
     head = f"Dry N {_fmt(b['shown'])} {unit} ({shown})"
     if not np.isfinite(b["all_gas"]) or not np.isfinite(b["all_particle"]):
-        return (f"{head}; gas/particle bracket not computed for these years (a member "
-                "of a pair has no data in them: budget.nc's bracket_*_note says which); "
+        gone = _unmeasured_members(years, site, receptor)
+        why = (f"{' and '.join(gone)} not measured at the site" if gone else
+               "a member of a pair has no data in them: budget.nc's bracket_*_note says "
+               "which")
+        return (f"{head}; gas/particle bracket not computed for these years ({why}); "
                 "the dry N shown stands.")
     part = "" if b["computed"] else " (over the years where it could be computed)"
     return (f"{head}; gas/particle bracket {_fmt(b['all_particle'])} (each HNO3/pNO3 and "
             f"NH3/pNH4 pair all as particle) to {_fmt(b['all_gas'])} (all as gas){part}: "
             "filters split ammonium nitrate between the phases, and the gas deposits "
             "faster.")
+
+
+def _unmeasured_members(years: xr.Dataset, site, receptor) -> list:
+    """Members of the gas/particle pairs (:data:`workbench.budget.PAIRS`) whose dry
+    component the budget notes as not measured at the site in every period."""
+    from ..budget import PAIRS
+    from .summaries import component_rates, component_reason
+    comp = component_rates(years, site, receptor)
+    dry = comp[comp["pathway"] == "dry"]
+    members = [m for pair in PAIRS.values() for m in pair]
+    return [m for m in members
+            if len(g := dry[dry["species"] == m])
+            and all(component_reason(n) == "not measured" for n in g["note"])]

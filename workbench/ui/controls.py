@@ -498,3 +498,54 @@ def open_with_progress(cls, scenario_path, **kw):
     if handle is not None:      # no bar left behind (and no "HTML(value='')" in a saved file)
         handle.update({"text/plain": ""}, raw=True)
     return app
+
+
+#: Characters of a control's description that fit ipywidgets' default label width
+#: (80 px at the 13 px font of JupyterLab); a longer one is cut with an ellipsis
+#: ("base sam..." under the Sobol analysis in the browser).
+DEFAULT_LABEL_CHARS = 11
+
+
+def _walk(root):
+    yield root
+    for c in getattr(root, "children", ()) or ():
+        yield from _walk(c)
+
+
+def cut_descriptions(root) -> list:
+    """Descriptions of the controls under `root` that the browser would cut: longer than
+    :data:`DEFAULT_LABEL_CHARS` at the default label width."""
+    out = []
+    for w in _walk(root):
+        text = getattr(w, "description", "") or ""
+        style = getattr(w, "style", None)
+        width = getattr(style, "description_width", None) if style is not None else None
+        if width == "" and len(text) > DEFAULT_LABEL_CHARS and not isinstance(
+                w, (widgets.Button, widgets.Checkbox, widgets.ToggleButton)):
+            out.append(text)
+    return out
+
+
+def fit_descriptions(root):
+    """Give every control under `root` whose description :func:`cut_descriptions` names
+    the width of its text (``description_width = "initial"``)."""
+    for w in _walk(root):
+        text = getattr(w, "description", "") or ""
+        if text in cut_descriptions(w) and not getattr(w, "children", None):
+            w.style.description_width = "initial"
+    return root
+
+
+#: Width of a dropdown's text per character [px] (13 px font, common practice for
+#: JupyterLab's sans-serif) and of its label and arrow [px]; ipywidgets' default
+#: dropdown is 300 px wide, label included, and cut "ridge · Tarnwick Ridge plantation".
+OPTION_CHAR_PX, DROPDOWN_FRAME_PX, DROPDOWN_DEFAULT_PX = 8, 110, 300
+
+
+def fit_options_width(w, most_px=520):
+    """Widen dropdown `w` so that its longest option shows whole (at most `most_px`)."""
+    longest = max((len(str(o)) for o in w.options), default=0)
+    need = min(most_px, DROPDOWN_FRAME_PX + OPTION_CHAR_PX * longest)
+    if need > DROPDOWN_DEFAULT_PX:
+        w.layout.width = f"{need}px"
+    return w

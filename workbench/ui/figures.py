@@ -18,7 +18,8 @@ from plotly.subplots import make_subplots
 
 from .palette import (COMPONENT_COLOURS, ELEMENT_DASH, ENVELOPE_FILL, OKABE_ITO,
                       PATHWAY_COLOURS, SITE_CYCLE, STATUS_OPACITY, STATUS_PATTERN, TEMPLATE)
-from .summaries import axis_text, component_rates, monthly_amounts, total_rates
+from .summaries import (axis_text, component_rates, component_reason, monthly_amounts,
+                        total_rates)
 
 #: Order of the elements side by side.
 ELEMENTS = ("S", "N")
@@ -42,11 +43,14 @@ def annual_rate(ds, site, receptor, period, unit="kg/ha/yr"):
     return t.drop(columns="period")
 
 
-def _hover_value(value, status, completeness, axis):
+def _hover_value(value, status, completeness, axis, note=""):
+    why = f"<br>{wrap_text(note, NOTE_CHARS * 2)}" if note else ""
     if not np.isfinite(value):
-        return f"no data (status {status})"
+        if component_reason(note) == "not measured":        # the note says it
+            return f"{wrap_text(note, NOTE_CHARS * 2)} (status {status})"
+        return f"no data (status {status}){why}"
     comp = f"{completeness:.0%}" if np.isfinite(completeness) else "n/a"
-    return f"{value:.3g} {axis}<br>status {status}, completeness {comp}"
+    return f"{value:.3g} {axis}<br>status {status}, completeness {comp}{why}"
 
 
 def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
@@ -61,6 +65,9 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
     periods = list(pd.unique(comp["period"]))
     traces = []
     titled = set()
+    why = {}                       # trace name -> the same reason in every period
+    unmeasured = {(p, sp) for p, sp, n in zip(comp["period"], comp["species"], comp["note"])
+                  if component_reason(n) == "not measured"}
     for (el, pw, sp), g in comp.groupby(["element", "pathway", "species"], sort=False):
         name = f"{pw} {sp}"
         axis = axis_text(unit, element=el)
@@ -74,9 +81,12 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
                        "opacity": [STATUS_OPACITY.get(x, 1.0) for x in st],
                        "pattern": {"shape": [STATUS_PATTERN.get(x, "") for x in st]},
                        "line": {"color": OKABE_ITO["black"], "width": 0.5}},
-            "customdata": [_hover_value(v, x, c, axis) for v, x, c in
-                           zip(vals, st, g["completeness"].to_numpy())],
+            "customdata": [_hover_value(v, x, c, axis, n) for v, x, c, n in
+                           zip(vals, st, g["completeness"].to_numpy(), g["note"].to_numpy())],
             "hovertemplate": f"{el} {name} %{{x[1]}}: %{{customdata}}<extra></extra>"}
+        reasons = {component_reason(n) for n in g["note"]}
+        if len(reasons) == 1 and reasons != {""}:
+            why[name] = reasons.pop()
         if el not in titled:
             trace["legendgrouptitle"] = {"text": ELEMENT_NAMES[el]}
         titled.add(el)
@@ -92,7 +102,7 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
             xs_el.append(el)
             xs_p.append(p)
             ys.append(v if np.isfinite(v) else None)
-            miss = f"<br>no data for {missing[i]}" if missing[i] else ""
+            miss = _missing_text(str(missing[i]), p, unmeasured)
             text.append(f"{el} total {p}: {v:.3g} {axis_text(unit, element=el)}"
                         f"<br>status {stt}{miss}")
             sym.append(TOTAL_SYMBOL[stt in ("complete", "filled")])
@@ -106,22 +116,43 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
               "yaxis": {"title": {"text": axis_text(unit)}},
               "xaxis": {"title": {"text": "element and period"}},
               "legend": {"title": {"text": "pathway and species"}, "groupclick": "toggleitem"},
-              "height": legend_height(len(traces) + len(titled)),
-              "annotations": [legend_note(traces, sym)]}
+              "annotations": [legend_note(traces, sym, why)]}
+    # the note under the legend takes room too: a long one must not leave the figure
+    note_lines = layout["annotations"][0]["text"].count("<br>") + 1
+    layout["height"] = legend_height(len(traces) + len(titled) + max(0, note_lines - 2))
     return {"data": traces, "layout": layout}
 
 
-def legend_note(traces, symbols) -> dict:
+def _missing_text(missing: str, period, unmeasured) -> str:
+    """Hover line of a total's components without data: those not measured at the site
+    apart from those without data in the period."""
+    names = missing.split()
+    gone = [m for m in names if (period, m) in unmeasured]
+    rest = [m for m in names if (period, m) not in unmeasured]
+    return (("<br>not measured at the site: " + " ".join(gone) if gone else "")
+            + ("<br>no data for " + " ".join(rest) if rest else ""))
+
+
+def legend_note(traces, symbols, why=None) -> dict:
     """A note under the budget's legend on what the legend cannot say: an open diamond is
     a total that is partial or flagged, and a component listed without a bar has no data
-    (its entry otherwise reads as a part of the stack).  Empty text when neither."""
+    (its entry otherwise reads as a part of the stack): not measured at the site, counted
+    in a bulk collector's wet deposition (a bar of 0), or no data in the periods shown.
+    `why` maps a trace name to its reason (:func:`summaries.component_reason`).  Empty
+    text when none of these."""
+    why = why or {}
     lines = []
     if TOTAL_SYMBOL[False] in symbols:
         lines.append("◇ total partial or flagged")
-    empty = [t["name"] for t in traces
-             if t.get("type") == "bar" and all(v is None for v in t["y"])]
-    if empty:
-        lines.append(wrap_text("no data: " + ", ".join(empty), NOTE_CHARS))
+    bars = [t for t in traces if t.get("type") == "bar"]
+    gone = [t["name"] for t in bars if why.get(t["name"]) == "not measured"]
+    caught = [t["name"] for t in bars if why.get(t["name"]) == "in the bulk wet"]
+    empty = [t["name"] for t in bars if all(v is None for v in t["y"])
+             and t["name"] not in gone and t["name"] not in caught]
+    for head, names in (("not measured: ", gone), ("in the bulk collector's wet: ", caught),
+                        ("no data: ", empty)):
+        if names:
+            lines.append(wrap_text(head + ", ".join(names), NOTE_CHARS))
     return {"text": "<br>".join(lines), "showarrow": False, "xref": "paper", "yref": "paper",
             "x": 1.02, "y": 0, "xanchor": "left", "yanchor": "top", "align": "left",
             "font": {"size": 11}}
@@ -379,10 +410,15 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
     fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"),
                         horizontal_spacing=PANEL_GAP)
     sites = list(pd.unique(table["site"]))
+    # more sites than colours: each round of the colours gets its own dash, so that no
+    # two sites look alike; the open markers share one note instead of a legend entry
+    # each (30 sites gave 60 entries behind a scroll bar)
+    many = len(sites) > len(SITE_CYCLE)
     for col, el in enumerate(ELEMENTS, start=1):
         for i, site in enumerate(sites):
             g = table[(table["site"] == site) & (table["element"] == el)]
             colour = SITE_CYCLE[i % len(SITE_CYCLE)]
+            dash = SITE_DASHES[(i // len(SITE_CYCLE)) % len(SITE_DASHES)]
             for ok in (True, False):
                 v = np.where(g["rankable"] == ok, g["value"], np.nan)
                 why = [f"{s}" + (f", no data for {m}" if m else "") for s, m in
@@ -391,8 +427,8 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
                     x=g["period"], y=[x if np.isfinite(x) else None for x in v],
                     mode="lines+markers" if ok else "markers",
                     name=f"{site}" if ok else f"{site} (partial or flagged: not ranked)",
-                    legendgroup=site, showlegend=col == 1,
-                    line=dict(color=colour), connectgaps=False,
+                    legendgroup=site, showlegend=col == 1 and (ok or not many),
+                    line=dict(color=colour, dash=dash), connectgaps=False,
                     marker=dict(color=colour, size=9, symbol="circle" if ok else "circle-open"),
                     customdata=why,
                     hovertemplate=(f"{site} {el} total %{{x}}: %{{y:.3g}} "
@@ -401,8 +437,24 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
         fig.update_yaxes(title_text=axis_text(unit, element=el), row=1, col=col, rangemode="tozero")
         fig.update_xaxes(title_text="year", type="category", row=1, col=col)
     fig.update_layout(title="Annual totals of the network (each site on its own surface)",
-                      template=template, height=HEIGHT, legend_title="site")
+                      template=template, legend_title="site",
+                      height=legend_height(len(sites) + 1) if many else HEIGHT)
+    if many:
+        # one legend group per site: plotly's 10 px gap between groups made 30 entries
+        # half as tall again as the room for them (a scroll bar after 22 sites)
+        fig.update_layout(legend_tracegroupgap=0)
+        fig.add_annotation(text="○ open marker: partial or flagged, not ranked",
+                           xref="paper", yref="paper", x=0, y=0, yshift=-50,
+                           showarrow=False, xanchor="left", yanchor="top",
+                           font=dict(size=11))
     return fig
+
+
+#: Line dashes of the sites past the first round of :data:`SITE_CYCLE`.
+SITE_DASHES = ("solid", "dot", "dash", "dashdot", "longdash")
+#: Height of a bar of the ranking, tick label included [px] (every site named: plotly
+#: skips category labels that do not fit, and a 30-site ranking named every third bar).
+RANK_BAR_PX = 17
 
 
 #: Bar colours of the ranking groups: every component first, then the partial groups.
@@ -459,7 +511,9 @@ def network_ranking_bars(ranking: pd.DataFrame, element: str, unit="kg/ha/yr",
                             "<sup>partial totals apart, per missing set</sup>",
                       xaxis_title=axis_text(unit, element=element), yaxis_title="rank · site",
                       yaxis=dict(autorange="reversed", categoryorder="array",
-                                 categoryarray=labels),
+                                 categoryarray=labels, tickmode="array", tickvals=labels,
+                                 ticktext=labels, automargin=True),
                       showlegend=False,        # each bar's label names its group
-                      template=template, height=HEIGHT, margin=dict(b=160))
+                      template=template, height=max(HEIGHT, 240 + RANK_BAR_PX * len(labels)),
+                      margin=dict(b=160))
     return fig

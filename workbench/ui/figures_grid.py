@@ -13,6 +13,9 @@ from .figures import from_spec
 
 #: Colour scales: sequential, colour-blind safe (plotly's built-in names).
 SCALES = {"dry": "Viridis", "vd": "Cividis"}
+#: Attribute of the maps that names what they show instead of the scenario asked for
+#: (set by :func:`open_maps`); the title of every map carries it.
+SHOWN_INSTEAD = "workbench_shown_instead"
 #: Factor and unit of the colour bar per kind of variable.
 DISPLAY = {"dry": (1.0, "kg/ha"), "vd": (100.0, "cm/s"), "flux": (1.0, "-")}
 
@@ -82,7 +85,10 @@ def grid_map_spec(ds, variable: str = "dry_N", period: int | str = 0) -> dict:
              "colorbar": {"title": {"text": unit}}, "customdata": custom,
              "hovertemplate": "lat %{customdata[0]:.3f}, lon %{customdata[1]:.3f}<br>"
              "%{customdata[2]}<br>" + f"{variable}: " + "%{z:.3g} " + unit + "<extra></extra>"}
-    layout = {"title": {"text": f"{what}, {labels[k]}"},
+    title = f"{what}, {labels[k]}"
+    if ds.attrs.get(SHOWN_INSTEAD):          # the user's scenario had no grid: say so
+        title += f"<br><sup>{ds.attrs[SHOWN_INSTEAD]}</sup>"
+    layout = {"title": {"text": title},
               "xaxis": {"title": {"text": xtitle}, "constrain": "domain"},
               "yaxis": {"title": {"text": ytitle}, "scaleanchor": "x", "scaleratio": 1},
               "height": 460, "width": 560}
@@ -92,3 +98,35 @@ def grid_map_spec(ds, variable: str = "dry_N", period: int | str = 0) -> dict:
 def grid_map(ds, variable: str = "dry_N", period: int | str = 0):
     """The plotly figure of :func:`grid_map_spec`."""
     return from_spec(grid_map_spec(ds, variable, period))
+
+
+def open_maps(scenario=None):
+    """The maps of a gridded run for the notebook (:func:`workbench.grid_demo.open_run`).
+
+    A scenario without a ``[grid]`` section (e.g. a site network) gets the invented demo
+    grid, as ``open_run`` does, and the maps say so in every title: the printed line
+    above them was easy to miss, and the maps read as the scenario's own.
+
+    Parameters
+    ----------
+    scenario : path, optional
+        A scenario file; None: the invented demo grid.
+
+    Returns
+    -------
+    xarray.Dataset
+        ``grid.nc``, loaded.
+    """
+    from ..grid_demo import open_run
+    from ..scenario import load_scenario
+    instead = ""
+    if scenario is not None and load_scenario(scenario).given.get("grid") is None:
+        instead = (f"invented demo grid: {scenario} has no [grid] section")
+        scenario_run = None
+    else:
+        scenario_run = scenario
+    ds = open_run(scenario_run)
+    if instead:
+        print(f"{scenario} has no [grid] section: showing the invented demo grid instead")
+        ds.attrs[SHOWN_INSTEAD] = instead
+    return ds

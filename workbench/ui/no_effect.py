@@ -22,6 +22,24 @@ SPECIES_OF_KEY = {"dry.nh3_treatment": "NH3"}
 SPLIT_INTO = {"all_gas": 0, "all_particle": 1}
 
 
+#: Starts of the budget's component notes (``note`` of budget.nc) that say why a
+#: component has no bar: the species is not measured at the site, or its dry
+#: deposition is counted in a bulk collector's wet ion (docs/budget.md).
+NOT_MEASURED = "not measured"
+IN_BULK_WET = "caught by the bulk collector"
+
+
+def component_reason(note) -> str:
+    """Short reason of a component without its own bar: ``"not measured"``, ``"in the
+    bulk wet"`` or ``""`` (none of the two), from the budget's component `note`."""
+    note = str(note or "")
+    if note.startswith(NOT_MEASURED):
+        return "not measured"
+    if note.startswith(IN_BULK_WET):
+        return "in the bulk wet"
+    return ""
+
+
 def _species_of(key: str) -> str | None:
     """The one species an assumption acts on, or None (it acts on several or none)."""
     parts = key.split(".")
@@ -175,3 +193,47 @@ def cut_no_effect_text(group, parts, loads, cuts, mode="air_and_wet", missing=()
                 reasons.append(f"the {what} exceedance here does not follow this cut")
         why = "; ".join(reasons)
     return f"cut {name}: the deposition moves, the exceedances stay as they were ({why})"
+
+
+#: Prefix of the sensitivity factors that scale one species' deposition velocity
+#: (``[sensitivity] factors``: ``vd_SO2``, ``vd_pSO4`` ...).
+VD_FACTOR = "vd_"
+#: Reason of a component without its own deposition, in a note's words.
+REASON_TEXT = {"not measured": "not measured at the site",
+               "in the bulk wet": "caught by the bulk collector, counted in its wet deposition"}
+
+
+def idle_factors_text(tornado: pd.DataFrame, components: pd.DataFrame) -> str:
+    """The factors of a Sobol analysis that moved no total of the site at either end of
+    their range, and why where the budget's notes say (a species not measured at the
+    site, a particle caught by a bulk collector); "" when every factor moved something.
+
+    Parameters
+    ----------
+    tornado : pandas.DataFrame
+        :func:`workbench.analysis.sensitivity.tornado` of one site, receptor and years
+        (``factor, output_low, output_high, output_base`` [kg/ha]).
+    components : pandas.DataFrame
+        :func:`workbench.ui.summaries.component_rates` of the same site and years.
+    """
+    import numpy as np
+
+    if tornado is None or not len(tornado):
+        return ""
+    moved = (~np.isclose(tornado["output_low"], tornado["output_base"], rtol=1e-9, atol=0)
+             | ~np.isclose(tornado["output_high"], tornado["output_base"], rtol=1e-9, atol=0))
+    moving = set(tornado.loc[moved, "factor"])
+    idle = [f for f in pd.unique(tornado["factor"]) if f not in moving]
+    if not idle:
+        return ""
+    dry = components[components["pathway"] == "dry"]
+    reasons = {str(sp): {component_reason(n) for n in g["note"]}
+               for sp, g in dry.groupby("species")} if "note" in dry else {}
+    by_reason = {}
+    for f in idle:
+        why = reasons.get(f[len(VD_FACTOR):], set()) if f.startswith(VD_FACTOR) else set()
+        key = REASON_TEXT.get(next(iter(why)), "") if len(why) == 1 else ""
+        by_reason.setdefault(key, []).append(f)
+    parts = [", ".join(fs) + (f" ({why})" if why else "") for why, fs in by_reason.items()]
+    return ("No effect on any total of this site and these years (index 0, no bar): "
+            + "; ".join(parts) + ".")

@@ -105,6 +105,57 @@ class Session:
                 have |= set(np.unique(ds["site"].values.astype(str)))
         return [s for s in inp.catalogue.ids if s in have]
 
+    def sites_without_data(self) -> list:
+        """Sites of sites.toml without a precipitation, air or met row (not computed)."""
+        have = set(self.sites)
+        return [s for s in self.study.inputs.catalogue.ids if s not in have]
+
+    def site_options(self) -> list:
+        """``(label, id)`` of :attr:`sites` for a dropdown: the id and the site's name
+        from sites.toml (thirty bare ids read alike)."""
+        cat = self.study.inputs.catalogue
+        out = []
+        for s in self.sites:
+            name = str(getattr(cat[s], "name", "") or "")
+            out.append((f"{s} · {name}" if name and name != s else s, s))
+        return out
+
+    def site_years(self, site) -> tuple:
+        """(first, last) calendar year of the site's precipitation and air samples,
+        inside :attr:`years`: the first year a sample ends in, the last year a sample
+        starts in (a weekly sample over New Year does not make a year of a closed site).
+        :attr:`years` when the site has no samples."""
+        first, last = self.years
+        inp = self.study.inputs
+        lo, hi = [], []
+        for ds in (inp.precipitation, inp.air):
+            if ds is None or not {"site", "start", "end"} <= set(ds.variables):
+                continue
+            mine = ds["site"].values.astype(str) == site
+            if mine.any():
+                lo.append(pd.Timestamp(ds["end"].values[mine].min()).year)
+                hi.append(pd.Timestamp(ds["start"].values[mine].max()).year)
+        if not lo:
+            return first, last
+        a, b = max(first, min(lo)), min(last, max(hi))
+        return (a, b) if a <= b else (first, last)
+
+    def years_for(self, site, years) -> tuple:
+        """The years `years` (first, last) kept inside the site's record
+        (:meth:`site_years`), and a sentence saying so when they moved ("" otherwise):
+        a site opened late or closed early showed a near-zero total, flagged, for
+        years it has no samples in."""
+        s0, s1 = self.site_years(site)
+        y0, y1 = int(years[0]), int(years[1])
+        n0, n1 = max(y0, s0), min(y1, s1)
+        if n0 > n1:
+            n0 = n1 = s1 if y0 > s1 else s0
+        if (n0, n1) == (y0, y1):
+            return (y0, y1), ""
+        span = f"{s0}" if s0 == s1 else f"{s0}-{s1}"
+        shown = f"{n0}" if n0 == n1 else f"{n0}-{n1}"
+        return (n0, n1), f"{site} has samples in {span} only: years set to {shown}"
+
     def receptors(self, site) -> list:
         """The site's own surface first, then its further receptors."""
         return list(self.study.inputs.catalogue[site].surfaces)

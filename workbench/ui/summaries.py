@@ -13,6 +13,7 @@ import xarray as xr
 from ..periods import MONTH_SEASON, SEASON_NAMES
 from ..units import element_deposition_in
 from .no_effect import PARTICLES, no_effect_text  # noqa: F401  (its home before)
+from .no_effect import IN_BULK_WET, NOT_MEASURED, component_reason  # noqa: F401
 
 #: Reported units: label -> (deposition unit key of
 #: :func:`workbench.units.element_deposition_in`, axis text of a yearly rate, axis text
@@ -107,7 +108,9 @@ def component_rates(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr
     -------
     pandas.DataFrame
         ``period, element, pathway, species, value`` [unit], ``status``,
-        ``completeness`` [1]; NaN value where the component is missing.
+        ``completeness`` [1], ``note`` (the budget's note of the component: e.g. not
+        measured at the site, caught by a bulk collector; empty when none); NaN value
+        where the component is missing.
     """
     labels = _as_list(periods, ds)
     pick = _picker(ds, site, receptor, labels)
@@ -122,7 +125,9 @@ def component_rates(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr
         "species": np.tile(pick("species").astype(str), n_p),
         "value": value.reshape(-1),
         "status": pick("status").reshape(-1).astype(str),
-        "completeness": pick("completeness").reshape(-1)})
+        "completeness": pick("completeness").reshape(-1),
+        "note": (pick("note").reshape(-1).astype(str) if "note" in ds.variables
+                 else np.full(n_p * n_c, "", dtype=object))})
 
 
 def total_rates(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -> pd.DataFrame:
@@ -170,6 +175,19 @@ def mean_totals(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -
     return out
 
 
+def _nh3_not_measured(ds, pick) -> bool:
+    """Whether the budget's note of the dry NH3 component says "not measured" in every
+    period of `ds` (the site has no NH3 concentration at all, not a gap)."""
+    if "note" not in ds.variables or "species" not in ds.variables:
+        return False
+    sp, pw = pick("species").astype(str), pick("pathway").astype(str)
+    j = np.flatnonzero((sp == "NH3") & (pw == "dry"))
+    if not j.size:
+        return False
+    notes = pick("note")[..., j[0]].reshape(-1)
+    return bool(len(notes)) and all(component_reason(n) == "not measured" for n in notes)
+
+
 def nh3_line(ds: xr.Dataset, site, receptor, unit="kg/ha/yr") -> str:
     """One sentence on the dry NH3 figure of the budget: the net exchange beside the
     deposition-only figure, or that NH3 is counted as deposition only.
@@ -184,6 +202,9 @@ def nh3_line(ds: xr.Dataset, site, receptor, unit="kg/ha/yr") -> str:
     only = to_unit(pick("nh3_deposition_only"), "N", unit) * fac
     net = to_unit(pick("nh3_net"), "N", unit) * fac
     if not np.isfinite(only).any():
+        if _nh3_not_measured(ds, pick):
+            return ("Dry NH3: not measured at this site (no NH3 concentration in the air "
+                    "file); the N totals leave it out (partial).")
         return "Dry NH3: no figure (no NH3 concentrations in these years)."
     mo = float(np.nanmean(only))
     if ds.attrs.get("nh3_figure") != "net" or not np.isfinite(net).any():
