@@ -76,3 +76,37 @@ def test_network_overview_names_a_listed_site_without_data(tmp_path):
         assert s.sites == ["v01"] and s.sites_without_data() == ["v02"]
         net = NetworkOverview(s)
     assert "Not computed" in net.apart_w.value and "v02" in net.apart_w.value
+
+
+def test_sensitivity_keeps_saying_the_years_moved_after_a_sweep(session):
+    """With a figure drawn, a site change moved the years and said so, and the line
+    was at once overwritten by "changed: press Run sweep" (seen in the browser): both
+    now stand in the progress line until the next sweep."""
+    from workbench.ui.apps import SensitivityExplorer
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        sens = SensitivityExplorer(session, site="v01", years=(2018, 2018), run=False)
+        sens.shown = "a drawn sweep · v01 · grass · 2018"      # as after a sweep
+        sens.site_w.value = "v02"
+    text = sens.progress.label.value
+    assert "v02 has samples in 2016-2017 only: years set to 2017" in text
+    assert "changed: press Run sweep (the figure shows a drawn sweep" in text
+    with warnings.catch_warnings():                      # a later change: no stale sentence
+        warnings.simplefilter("ignore", RuntimeWarning)
+        sens.run()
+        sens.steps_w.value = sens.steps_w.value + 1
+    assert "years set to" not in sens.progress.label.value
+    assert "changed: press Run sweep" in sens.progress.label.value
+
+
+def test_sobol_keeps_saying_the_years_moved(session):
+    """The Sobol app had the same overwrite as the sensitivity sweep."""
+    from workbench.ui.app_sobol import SobolExplorer
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        sob = SobolExplorer(session, site="v01", years=(2018, 2018), run=False)
+        sob.shown = ("v01", "grass", (2018, 2018))               # as after an analysis
+        sob.site_w.value = "v02"
+    text = sob.progress.label.value
+    assert "v02 has samples in 2016-2017 only: years set to 2017" in text
+    assert "changed: press Run analysis (the figure shows v01 · grass · 2018)" in text

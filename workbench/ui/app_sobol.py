@@ -86,6 +86,7 @@ class SobolExplorer(SavedText, widgets.VBox):
         self.tornado = pd.DataFrame()
         self.idle_w = widgets.HTML("")       # factors without effect here, and why
         self.shown = None      # (site, receptor, years) of the last analysis
+        self._moved = ""       # the sentence saying the years moved into a site's record
         self.fig = figure_widget(self._figure())
         self.site_w.observe(self._on_site, "value")
         for w in (self.site_w, self.receptor_w, self.years_w, self.samples_w):
@@ -115,6 +116,7 @@ class SobolExplorer(SavedText, widgets.VBox):
         self.receptor_w.value = self.receptor_w.options[0]
         # years outside the site's record (opened late, closed early): moved inside it
         years, moved = self.session.years_for(self.site_w.value, self.years_w.value)
+        self._moved = moved      # kept in the progress line until the next analysis
         if moved:
             self.years_w.value = years
             self.progress.step(moved, 0.0)
@@ -124,7 +126,8 @@ class SobolExplorer(SavedText, widgets.VBox):
         last run's site, receptor and years until "Run analysis", and says so."""
         if self.shown:
             site, rec, (y0, y1) = self.shown
-            self.progress.step("changed: press Run analysis (the figure shows "
+            lead = f"{self._moved}; " if self._moved else ""
+            self.progress.step(f"{lead}changed: press Run analysis (the figure shows "
                                f"{site} · {rec} · {y0 if y0 == y1 else f'{y0}-{y1}'})", 0.0)
 
     def _figure(self):
@@ -154,6 +157,7 @@ class SobolExplorer(SavedText, widgets.VBox):
         from ..analysis import sensitivity as S
         site, rec = self.site_w.value, self.receptor_w.value
         y0, y1 = self.years_w.value
+        self._moved = ""
         study = self.session.study_for(site, y0, y1)
         start, end = self.session.bounds(y0, y1)
         st = self.settings

@@ -98,6 +98,7 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         self.run_w.on_click(lambda _: self.run())
         self.unit_w.observe(lambda c: self.run(), "value")
         self.shown = ""        # what the figure shows (assumption, site, receptor, years)
+        self._moved = ""       # the sentence saying the years moved into a site's record
         for w in (self.site_w, self.receptor_w, self.years_w, self.key_w, self.range_w,
                   self.steps_w):
             w.observe(self._stale, "value")
@@ -135,6 +136,7 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         self.receptor_w.value = self.receptor_w.options[0]
         # years outside the site's record (opened late, closed early): moved inside it
         years, moved = self.session.years_for(self.site_w.value, self.years_w.value)
+        self._moved = moved      # kept in the progress line until the next sweep
         if moved:
             self.years_w.value = years
             self.progress.step(moved, 0.0)
@@ -143,13 +145,16 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         """A control of the sweep changed after the last sweep: the figure stays as it
         was until "Run sweep", so the progress line says what it still shows."""
         if self.shown:
-            self.progress.step(f"changed: press Run sweep (the figure shows {self.shown})", 0.0)
+            lead = f"{self._moved}; " if self._moved else ""
+            self.progress.step(f"{lead}changed: press Run sweep (the figure shows {self.shown})",
+                               0.0)
 
     def run(self):
         """Sweep the chosen assumption and redraw."""
         a = ASSUMPTIONS[self.key_w.value]
         site, rec, unit = self.site_w.value, self.receptor_w.value, self.unit_w.value
         years = tuple(self.years_w.value)
+        self._moved = ""
         lo, hi = self.range_w.value if a.kind in ("float", "optional_float") else (None, None)
         values = sweep_values(a, lo, hi, self.steps_w.value)
         base = a.get(self.settings, site)
