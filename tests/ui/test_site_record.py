@@ -110,3 +110,16 @@ def test_sobol_keeps_saying_the_years_moved(session):
     text = sob.progress.label.value
     assert "v02 has samples in 2016-2017 only: years set to 2017" in text
     assert "changed: press Run analysis (the figure shows v01 · grass · 2018)" in text
+
+
+def test_critical_loads_figure_has_the_apps_template(session):
+    """The critical-loads figure was drawn on plotly's grey default template, unlike the
+    other apps' figures (seen in the browser)."""
+    from workbench.ui.apps_analysis import CriticalLoadsExplorer
+    from workbench.ui.palette import TEMPLATE
+    import plotly.io as pio
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = CriticalLoadsExplorer(session)
+    want = pio.templates[TEMPLATE].layout.plot_bgcolor
+    assert app.fig.layout.template.layout.plot_bgcolor == want

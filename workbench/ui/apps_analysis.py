@@ -16,6 +16,7 @@ from ..analysis.whatif import GROUP_TEXT, GROUPS, MODES, group_deposition, path_
 from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh, table_html)
+from .figures import from_spec
 from .figures_analysis import clf_spec
 from .session import Session
 from .summaries import RANKABLE, total_rates
@@ -100,7 +101,8 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         self.effect_w = widgets.HTML("", layout=widgets.Layout(min_height="1.4em"))
         self.effect_w.add_class("wb-no-effect")
         self.table_w = widgets.HTML("")
-        self.fig = figure_widget(clf_spec({}))
+        # with the apps' template (a bare spec gave plotly's grey default)
+        self.fig = figure_widget(from_spec(clf_spec({})))
         self.unc_options = self._uncertainty_options(session)
         self.range_w = widgets.Checkbox(
             value=(session.scenario.options.get("uncertainty") or self.unc_options).draws > 0,
