@@ -487,3 +487,23 @@ def test_default_block_follows_the_record_length(grid):
     names2, given = compute_grid(grid, DryOptions(), BudgetOptions(), periods, block=side)
     assert names == names2
     np.testing.assert_array_equal(auto, given)
+
+
+def test_a_class_goes_through_the_engine_in_slices(grid, monkeypatch):
+    """A block's peak followed its largest land-use class; a class now goes through the
+    dry engine CELLS_PER_CALL cells at a time, with the same maps (cells are
+    independent: equal to rounding, the order of sums in a vectorized call)."""
+    import workbench.grid as G
+    periods = make_periods(grid, "month")
+    _, whole = compute_grid(grid, DryOptions(), BudgetOptions(), periods, block=10)
+    calls = []
+    real = G.dry_for_sites
+
+    def spy(met, air, cat, *a, **k):
+        calls.append(len(cat))
+        return real(met, air, cat, *a, **k)
+    monkeypatch.setattr(G, "dry_for_sites", spy)
+    monkeypatch.setattr(G, "CELLS_PER_CALL", 1)
+    _, sliced = compute_grid(grid, DryOptions(), BudgetOptions(), periods, block=10)
+    assert calls == [1] * 5                    # 5 cells with a class, one call each
+    np.testing.assert_allclose(sliced, whole, rtol=1e-12, atol=0, equal_nan=True)
