@@ -80,6 +80,8 @@ def join_notes(acc, text):
 #: week, the usual sample (our choice; a weekly sample across the edge of the record's
 #: first year leaves less).
 SAMPLING_GAP_NOTE_H = 168.0
+#: Hours of a week, the unit the note counts a gap in [h].
+HOURS_PER_WEEK = 168.0
 
 
 def sampling_gap_note(note, status, coverage, hours, role):
@@ -115,11 +117,11 @@ def sampling_gap_note(note, status, coverage, hours, role):
     show = np.flatnonzero((np.isfinite(cov) & (cov > 0) & (status != "missing")
                            & (gap >= SAMPLING_GAP_NOTE_H - 1e-6)).ravel())
     flat, flat_gap, flat_cov = note.reshape(-1), gap.reshape(-1), cov.reshape(-1)
-    for i in show:                           # the few rows with a gap: their words
-        w = round(float(flat_gap[i]) / 168.0, 1)
-        text = (f"{role}: {w:g} week{'' if w == 1 else 's'} without a usable sample "
-                f"({100 * flat_cov[i]:.1f} % of the period's hours covered)")
-        flat[i] = text if not flat[i] else flat[i] + "; " + text
+    weeks = [round(float(g) / HOURS_PER_WEEK, 1) for g in flat_gap[show]]
+    text = np.array([f"{role}: {w:g} week{'' if w == 1 else 's'} without a usable sample "
+                     f"({100 * c:.1f} % of the period's hours covered)"
+                     for w, c in zip(weeks, flat_cov[show])], dtype=object)
+    flat[show] = join_notes(flat[show], text)     # the few rows with a gap: their words
     return flat.reshape(cov.shape)
 
 
