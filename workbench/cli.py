@@ -1,4 +1,5 @@
-"""Command line: ``workbench run | check | demo | sensitivity | grid`` (also ``python -m workbench``).
+"""Command line: ``workbench run | check | demo | sensitivity | grid | verify | compare``
+(also ``python -m workbench``).
 
 Every failure ends in one line ``error: ...`` on stderr that says where and what to do,
 with a non-zero exit code (2; 130 after Ctrl-C), never a traceback: the workbench's own
@@ -83,7 +84,12 @@ def _progress(quiet):
 
 
 def cmd_check(args) -> int:
+    from .cli_runs import run_folder_hint
     from .preflight import prepare
+    from .runcheck import RunRecordError
+    hint = run_folder_hint(args.scenario)
+    if hint:
+        raise RunRecordError(hint)
     prep = prepare(args.scenario, progress=_progress(args.quiet))
     print(f"scenario: {prep.scenario.path}")
     print(_inputs_text(prep.study.inputs))
@@ -475,6 +481,8 @@ def build_parser() -> argparse.ArgumentParser:
                    "workbench-demo-<time> folder here)")
     d.add_argument("--quiet", action="store_true", help="no progress bar")
     d.set_defaults(func=cmd_demo)
+    from .cli_runs import add_parsers
+    add_parsers(sub)                     # verify, compare: run folders handed on
     return p
 
 
