@@ -206,10 +206,13 @@ def verify_run(run, scenario=None) -> Verification:
         sc_path = sc_path if sc_path.is_file() else None
     else:
         sc_path, places = _find(sc_rec, run) if sc_rec else (None, [])
-    if sc_path is None:
-        where = " or ".join(str(p) for p in places) or "(no scenario recorded)"
+    if sc_path is None and not sc_rec and scenario is None:
+        say("scenario: no file recorded (a run exported from the apps: its options are "
+            "the scenario in provenance.json; --scenario FILE compares them with a file)")
+    elif sc_path is None:
         bad("scenario not found")
-        say(f"scenario: not found (looked at {where}); name it with --scenario FILE")
+        say(f"scenario: not found (looked at {' or '.join(str(p) for p in places)}); "
+            "name it with --scenario FILE")
     else:
         same = sc_rec.get("sha256") == sha256(sc_path)
         say(f"scenario: {sc_path}: " + ("as at the run" if same else
