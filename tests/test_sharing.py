@@ -214,3 +214,29 @@ def test_compare_of_other_periods_says_so(tmp_path, capsys):
     out = capsys.readouterr().out
     assert "period.resolution: month in A, season in B" in out
     assert "only in A" in out and "only in B" in out
+
+
+def test_an_input_edited_while_the_run_reads_it_is_named(tmp_path, monkeypatch, capsys):
+    """Old code: provenance.json took the checksums at the end, so an input edited after
+    it was read (in an editor, while a run or an app session was open) was recorded as
+    the file the numbers came from.  Seen in the trial: a run that read an edited
+    air.csv recorded the checksum of the file restored before the run ended."""
+    from workbench import writers
+    scen = _project(tmp_path / "p")
+    air = scen.parent / "air.csv"
+    first_name, first_writer = writers.OUTPUT_STEPS[0]
+
+    def edit_then_write(result, study, scenario, path):
+        air.write_text(air.read_text() + "\n")         # someone saves the file meanwhile
+        return first_writer(result, study, scenario, path)
+    monkeypatch.setattr(writers, "OUTPUT_STEPS",
+                        [(first_name, edit_then_write)] + writers.OUTPUT_STEPS[1:])
+    run = _run(scen, tmp_path / "run")
+    err = capsys.readouterr().err
+    assert ("warning: " + str(air) + " changed after the run read it") in err
+    prov = json.loads((run / "provenance.json").read_text())
+    assert prov["inputs"]["air"].get("changed_after_read") is True
+    assert "changed_after_read" not in prov["inputs"]["met"]
+    assert any(n.startswith("air.csv changed after the run read it") for n in prov["run_notes"])
+    assert main(["verify", str(run)]) == 1
+    assert "input air (air.csv): changed after the run read it" in capsys.readouterr().out

@@ -256,6 +256,9 @@ def cmd_run(args) -> int:
     print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
     for name in written:
         print(f"  {name}")
+    from .writers import changed_since_read, changed_note
+    for path in changed_since_read(study).values():     # edited while the run read it
+        print(f"warning: {changed_note(path, None)}", file=sys.stderr)
     for line in status_lines(result.table, study.inputs):
         print(line)
     for line in run_span_notes(args.scenario, result.table, args.resolution):

@@ -252,6 +252,11 @@ def verify_run(run, scenario=None) -> Verification:
                 continue
         else:
             found, looked = _find(rec, run)
+        if rec.get("changed_after_read"):
+            bad(f"input {role} changed during the run")
+            say(f"input {role} ({name}): changed after the run read it (provenance.json): "
+                "the run's checksum is not of the file its numbers come from")
+            continue
         if found is None:
             bad(f"input {role} not found")
             say(f"input {role} ({name}): not found (looked at "

@@ -222,8 +222,24 @@ def environment() -> dict:
     return {"python": platform.python_version(), "platform": platform.platform(), **libs}
 
 
+def changed_since_read(study) -> dict:
+    """role -> path of each input of `study` that changed (size or modification time)
+    after it was read: its checksum now is not of the file the numbers came from."""
+    from .io.inputs import file_stamp
+    stamps = getattr(study.inputs, "stamps", {}) or {}
+    return {role: p for role, p in study.inputs.paths.items()
+            if role in stamps and file_stamp(p) != stamps[role]}
+
+
+def changed_note(path, base) -> str:
+    """The note of an input that changed after the run read it."""
+    return (f"{shown_path(path, base)} changed after the run read it: its sha256 in "
+            "provenance.json is of the file as it is now, not of the one the numbers come "
+            "from; run again to use the file as it is")
+
+
 def provenance(scenario, inputs_paths: dict, started: _dt.datetime, out=None,
-               resolution=None) -> dict:
+               resolution=None, changed=()) -> dict:
     """What made a run, for provenance.json (docs/run_folder.md).
 
     Parameters
@@ -239,6 +255,9 @@ def provenance(scenario, inputs_paths: dict, started: _dt.datetime, out=None,
     resolution : str, optional
         The reporting resolution in force (``workbench run --resolution`` overrides the
         scenario's ``[period] resolution``; the recorded scenario says the one used).
+    changed : collection of str
+        Roles of the inputs that changed after they were read
+        (:func:`changed_since_read`): marked ``"changed_after_read": true``.
     """
     base = scenario_base(scenario)
     resolved = scenario.resolved() if scenario is not None else None
@@ -255,6 +274,8 @@ def provenance(scenario, inputs_paths: dict, started: _dt.datetime, out=None,
                         else Path(p).name}
         if out is not None:
             inputs[role]["from_run_folder"] = relative_from(p, out)
+        if role in changed:
+            inputs[role]["changed_after_read"] = True
     return {
         "package": "deposition-workbench", "version": __version__,
         "run_started_utc": started.strftime("%Y-%m-%dT%H:%M:%SZ"),
@@ -404,14 +425,17 @@ def write_files(result, study, scenario, folder: Path, progress=None, started=No
         path = folder / name
         try:
             if writer is None:
+                changed = changed_since_read(study)
                 prov = provenance(scenario, input_paths(study, scenario), started,
                                   out=folder if out is None else out,
-                                  resolution=getattr(result, "options", {}).get("resolution"))
+                                  resolution=getattr(result, "options", {}).get("resolution"),
+                                  changed=changed)
                 prov["outputs"] = names + ["provenance.json"]
                 prov["output_sha256"] = {n: sha256(folder / n) for n in names}
                 prov["input_notes"] = [shown_text(str(n), base) for n in study.inputs.ledger.notes]
-                prov["run_notes"] = [shown_text(str(n), base)
-                                     for n in getattr(result, "notes", [])]
+                prov["run_notes"] = ([shown_text(str(n), base)
+                                      for n in getattr(result, "notes", [])]
+                                     + [changed_note(p, base) for p in changed.values()])
                 path.write_text(json.dumps(prov, indent=2, default=str))
                 got = path
             else:
