@@ -240,3 +240,27 @@ def test_an_input_edited_while_the_run_reads_it_is_named(tmp_path, monkeypatch, 
     assert any(n.startswith("air.csv changed after the run read it") for n in prov["run_notes"])
     assert main(["verify", str(run)]) == 1
     assert "input air (air.csv): changed after the run read it" in capsys.readouterr().out
+
+
+def test_budget_differences_counts_tolerance_missing_values_and_status(tmp_path):
+    """Unit check of :func:`workbench.runcompare.budget_differences` on hand-made tables
+    (values invented): a change within `rtol` is equal, a total missing in one run
+    (empty) differs, a status change alone differs, rows of one run only are counted."""
+    from workbench.runcompare import budget_differences
+    head = "site,receptor,period,element,pathway,species,flux_kg_ha_yr,status\n"
+    rows_a = ["s1,grass,2020,S,total,all,10.0,complete", "s1,grass,2020,N,total,all,5.0,complete",
+              "s1,grass,2020,N,dry,all,2.0,complete", "s1,grass,2020,S,dry,all,1.0,complete",
+              "s1,grass,2020,S,dry,SO2,1.0,complete", "s1,grass,2021,S,total,all,3.0,complete"]
+    rows_b = ["s1,grass,2020,S,total,all,10.000001,complete", "s1,grass,2020,N,total,all,,missing",
+              "s1,grass,2020,N,dry,all,2.0,flagged", "s1,grass,2020,S,dry,all,1.0,complete",
+              "s1,grass,2020,S,dry,SO2,1.5,complete"]
+    for name, rows in (("a", rows_a), ("b", rows_b)):
+        (tmp_path / name).mkdir()
+        (tmp_path / name / "budget.csv").write_text(head + "\n".join(rows) + "\n")
+    exact, counts = budget_differences(tmp_path / "a", tmp_path / "b")
+    assert counts == {"shared": 4, "only_a": 1, "only_b": 0}     # species SO2 not a total
+    assert list(zip(exact["element"], exact["pathway"])) == [("N", "total"), ("S", "total"),
+                                                              ("N", "dry")]
+    loose, _ = budget_differences(tmp_path / "a", tmp_path / "b", rtol=1e-6)
+    assert list(zip(loose["element"], loose["pathway"])) == [("N", "total"), ("N", "dry")]
+    assert loose["b_status"].tolist() == ["missing", "flagged"]
