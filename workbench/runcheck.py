@@ -215,10 +215,14 @@ def verify_run(run, scenario=None) -> Verification:
             "name it with --scenario FILE")
     else:
         same = sc_rec.get("sha256") == sha256(sc_path)
-        say(f"scenario: {sc_path}: " + ("as at the run" if same else
-            f"differs from the run (sha256 {_short(sc_rec.get('sha256'))} at the run, "
-            f"{_short(sha256(sc_path))} now)"))
-        if not same:
+        if not sc_rec:                   # an apps' export: its options are the record
+            say(f"scenario: {sc_path}: compared by its options (the run records no "
+                "scenario file)")
+        else:
+            say(f"scenario: {sc_path}: " + ("as at the run" if same else
+                f"differs from the run (sha256 {_short(sc_rec.get('sha256'))} at the run, "
+                f"{_short(sha256(sc_path))} now)"))
+        if not same and sc_rec:
             bad("scenario changed")
         try:
             from .scenario import load_scenario
