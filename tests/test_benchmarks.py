@@ -172,11 +172,14 @@ def test_same_run_masks_stamps_and_ids_only(tmp_path, capsys):
     for d, stamp, uid in ((a, "2026-12-03T00:21:44Z", "91afb1bb-3862-44e1-b645-8a57acb38aaa"),
                           (b, "2026-12-03T01:02:03Z", "1b0a7436-2521-463e-8988-9b87091f1fc7")):
         d.mkdir()
-        (d / "provenance.json").write_text(f'{{"run_started_utc": "{stamp}"}}')
-        (d / "report.html").write_text(f'<div id="{uid}">1.25</div>')
+        (d / "provenance.json").write_text(f'{{"run_started_utc": "{stamp}", '
+                                           f'"output_sha256": {{"budget.nc": "{uid[:8]}"}}}}')
+        (d / "report.html").write_text(f'written {stamp[:10]} {stamp[11:16]} UTC'
+                                       f'<div id="{uid}">1.25</div>')
     assert same_run.differing(a, b) == []
     assert same_run.main([str(a), str(b)]) == 0
-    (b / "report.html").write_text('<div id="1b0a7436-2521-463e-8988-9b87091f1fc7">1.26</div>')
+    (b / "report.html").write_text('written 2026-12-03 01:02 UTC'
+                                   '<div id="1b0a7436-2521-463e-8988-9b87091f1fc7">1.26</div>')
     (b / "budget.csv").write_text("x\n")
     assert [n for n, _ in same_run.differing(a, b)] == ["budget.csv", "report.html"]
     assert same_run.main([str(a), str(b)]) == 1

@@ -27,7 +27,7 @@ def test_run_folder_counts_every_input_row(tmp_path):
     totals = rows[rows["reason"] == ""].groupby("file")["rows"].sum()
     assert len(totals) == 3                                   # precipitation, air, met
     for name, n in totals.items():                           # read = every data line
-        assert n == _data_lines(Path(name)), name
+        assert n == _data_lines(scen.parent / name), name     # named as in [inputs]
     rej = rows[rows["file"].str.endswith("precip.csv") & (rows["status"] == "rejected")]
     assert rej["rows"].tolist() == [1, 1]                     # the total, then its reason
     assert rej["reason"].iloc[1] == "exact repeat of an earlier line (dropped)"

@@ -1,4 +1,5 @@
-"""Command line: ``workbench run | check | demo | sensitivity | grid`` (also ``python -m workbench``).
+"""Command line: ``workbench run | check | demo | sensitivity | grid | verify | compare``
+(also ``python -m workbench``).
 
 Every failure ends in one line ``error: ...`` on stderr that says where and what to do,
 with a non-zero exit code (2; 130 after Ctrl-C), never a traceback: the workbench's own
@@ -83,7 +84,12 @@ def _progress(quiet):
 
 
 def cmd_check(args) -> int:
+    from .cli_runs import run_folder_hint
     from .preflight import prepare
+    from .runcheck import RunRecordError
+    hint = run_folder_hint(args.scenario)
+    if hint:
+        raise RunRecordError(hint)
     prep = prepare(args.scenario, progress=_progress(args.quiet))
     print(f"scenario: {prep.scenario.path}")
     print(_inputs_text(prep.study.inputs))
@@ -250,6 +256,9 @@ def cmd_run(args) -> int:
     print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
     for name in written:
         print(f"  {name}")
+    from .writers import changed_since_read, changed_note
+    for path in changed_since_read(study).values():     # edited while the run read it
+        print(f"warning: {changed_note(path, None)}", file=sys.stderr)
     for line in status_lines(result.table, study.inputs):
         print(line)
     for line in run_span_notes(args.scenario, result.table, args.resolution):
@@ -475,6 +484,8 @@ def build_parser() -> argparse.ArgumentParser:
                    "workbench-demo-<time> folder here)")
     d.add_argument("--quiet", action="store_true", help="no progress bar")
     d.set_defaults(func=cmd_demo)
+    from .cli_runs import add_parsers
+    add_parsers(sub)                     # verify, compare: run folders handed on
     return p
 
 

@@ -3,12 +3,15 @@ from __future__ import annotations
 
 import html
 import json
+import re
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
 from . import __version__
 from .budget import OMISSIONS
+from .runpaths import scenario_base, shown_path, shown_text
 from .report_network import (NETWORK_SITES, fold, grouped_free_notes, grouped_notes,
                              network_section)
 
@@ -242,12 +245,19 @@ def _nh3_html(result, network=False) -> list:
             if network else _table_html(frame)]
 
 
+def _shown_files(frame: pd.DataFrame, base) -> pd.DataFrame:
+    """`frame` with its ``file`` column relative to the scenario's folder `base`."""
+    if base is None or "file" not in frame:
+        return frame
+    return frame.assign(file=[shown_path(f, base) for f in frame["file"]])
+
+
 def _run_line(scenario) -> str:
     """Scenario file and time of writing: which run a printed page belongs to."""
     import datetime as dt
     now = dt.datetime.now(dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
-    path = getattr(scenario, "path", None)
-    where = f" · scenario {html.escape(str(path))}" if path else ""
+    path = getattr(scenario, "path", None)      # its name: the same page wherever it ran
+    where = f" · scenario {html.escape(Path(path).name)}" if path else ""
     return (f"{where} · written {now} · inputs with their SHA-256 and every option in "
             "provenance.json")
 
@@ -371,13 +381,15 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     else:
         parts.append("<p>No precipitation file.</p>")
     parts.append("<h2>Input rows</h2>")
-    parts.append(_table_html(study.inputs.ledger.summary()))
+    base = scenario_base(scenario)             # files named as the scenario names them
+    parts.append("<p>Files relative to the scenario's folder.</p>" if base is not None else "")
+    parts.append(_table_html(_shown_files(study.inputs.ledger.summary(), base)))
     reasons = study.inputs.ledger.reasons()   # why rows were flagged or rejected, per file
     if len(reasons):
         parts.append("<p>Reasons of the flagged and rejected rows (a row may have several; "
                      "samples.csv has them per precipitation sample):</p>")
-        parts.append(_table_html(reasons))
-    led_notes = study.inputs.ledger.notes
+        parts.append(_table_html(_shown_files(reasons, base)))
+    led_notes = [shown_text(str(n), base) for n in study.inputs.ledger.notes]
     if led_notes and network:
         led_notes = grouped_free_notes(led_notes, sites.astype(str))
     if led_notes:
@@ -385,13 +397,14 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     parts.append("<h2>What the budget leaves out</h2><ul>")
     parts.extend(f"<li><b>{html.escape(a)}</b>: {html.escape(b)}</li>" for a, b in OMISSIONS)
     parts.append("</ul>")
-    run_notes = result.notes
+    run_notes = [shown_text(str(n), base) for n in result.notes]
     if run_notes and network:
         run_notes = grouped_free_notes(run_notes, sites.astype(str))
     if run_notes:
         parts.append("<h2>Notes</h2><ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in run_notes) + "</ul>")
     from .scenario import _plain
-    opts = {k: _plain(v) for k, v in result.options.items()}
+    opts = {k: _plain(getattr(v, "options", v) if k == "uncertainty" else v)
+            for k, v in result.options.items()}    # the draws' options, not their arrays
     parts.append("<h2>Options in force</h2><details><summary>Show the options of this run "
                  "(as in provenance.json)</summary><pre>"
                  + html.escape(json.dumps(opts, indent=1, default=str)) + "</pre></details>")
@@ -403,8 +416,22 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
              "#E69F00;padding:.6em 1em}.settings{background:#eef4fa;padding:.4em 1em}"
              "@media print{body{max-width:none;font-size:10pt}.tab{font-size:8pt}"
              "tr,.js-plotly-plot{break-inside:avoid}details{display:block}}")
-    return (f"<!DOCTYPE html><html><head><meta charset='utf-8'><title>{title}</title>"
-            f"<style>{style}</style></head><body><h1>{title}</h1>"
-            f"<p>deposition workbench {__version__}{_run_line(scenario)}</p>"
-            f"<p class='caution'><b>Caution.</b> {html.escape(CAUTION)}</p>{body}"
-            f"<p class='caution'>{html.escape(CAUTION)}</p></body></html>")
+    return _numbered_figures(
+        f"<!DOCTYPE html><html><head><meta charset='utf-8'><title>{title}</title>"
+        f"<style>{style}</style></head><body><h1>{title}</h1>"
+        f"<p>deposition workbench {__version__}{_run_line(scenario)}</p>"
+        f"<p class='caution'><b>Caution.</b> {html.escape(CAUTION)}</p>{body}"
+        f"<p class='caution'>{html.escape(CAUTION)}</p></body></html>")
+
+
+#: The random id plotly gives the div of a figure (a UUID4).
+_FIGURE_ID = re.compile(r'<div id="([0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-'
+                        r'[0-9a-f]{12})" class="plotly-graph-div"')
+
+
+def _numbered_figures(text: str) -> str:
+    """`text` with plotly's random figure ids replaced by ``figure-1``, ``figure-2``, ...
+    in page order, so that the same run writes the same page."""
+    for i, fid in enumerate(dict.fromkeys(_FIGURE_ID.findall(text)), start=1):
+        text = text.replace(fid, f"figure-{i}")
+    return text

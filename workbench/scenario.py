@@ -279,7 +279,7 @@ def _particle_modes(given: dict, defaults: dict) -> dict:
     return out
 
 
-def validate(raw: dict, path=None, text: str = "") -> Scenario:
+def validate(raw: dict, path=None, text: str = "", require_inputs: bool = True) -> Scenario:
     """Check a parsed scenario against the schema and fill in the defaults.
 
     Raises
@@ -371,13 +371,14 @@ def validate(raw: dict, path=None, text: str = "") -> Scenario:
     sc = Scenario(Path(path) if path is not None else None, data, raw, objects,
                   {k: float(v) for k, v in fixed.items()})
     for role, p in sc.input_paths().items():
-        if not p.exists():
+        if not p.exists() and require_inputs:
             raise ScenarioError("input file does not exist", file=path,
                                 line=_line_of(lines, "inputs", role), column=f"inputs.{role}",
                                 value=sc.data["inputs"][role], expected="a path relative to the "
                                 "scenario file, or absolute")
     _check_period(data["period"], path, lines)
-    sc.notes = _check_site_overrides(sc, path, lines)
+    if require_inputs or (sc.input_path("sites") is not None and sc.input_path("sites").exists()):
+        sc.notes = _check_site_overrides(sc, path, lines)
     return sc
 
 
@@ -483,13 +484,16 @@ def _check_site_overrides(sc: "Scenario", path, lines) -> list:
     return notes
 
 
-def load_scenario(path) -> Scenario:
+def load_scenario(path, require_inputs: bool = True) -> Scenario:
     """Read and validate a scenario file.
 
     Parameters
     ----------
     path : str or Path
         A TOML file.
+    require_inputs : bool
+        Refuse a scenario whose input files do not exist (False: read its options only,
+        e.g. to compare them with a run's, :mod:`workbench.runcheck`).
 
     Returns
     -------
@@ -498,7 +502,7 @@ def load_scenario(path) -> Scenario:
     from .io.tomlfile import read_toml
     path = Path(path).resolve()
     raw, text = read_toml(path, ScenarioError, "scenario file not found")
-    return validate(raw, path, text)
+    return validate(raw, path, text, require_inputs=require_inputs)
 
 
 def load_scenario_inputs(scenario: Scenario, progress=None):

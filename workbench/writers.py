@@ -20,6 +20,7 @@ from .io.common import release_free_memory
 from .io.ledger import STATUSES
 from .runfolder import (OutputError, RunFolder, atomic_write, check_out_dir,  # noqa: F401
                         os_error_message)
+from .runpaths import relative_from, scenario_base, shown_path, shown_text
 from .budget import derived_status
 from .tables import BUDGET_COLUMNS, summary_table
 
@@ -207,14 +208,83 @@ def velocities_dataset(vd: xr.Dataset) -> xr.Dataset:
     return res
 
 
-def provenance(scenario, inputs_paths: dict, started: _dt.datetime) -> dict:
+def environment() -> dict:
+    """Versions of Python and of the libraries that compute and write a run, and the
+    platform: what a colleague needs to know to reproduce the numbers."""
+    import platform
+    from importlib.metadata import PackageNotFoundError, version
+    libs = {}
+    for name in ("numpy", "pandas", "xarray", "scipy", "pint", "plotly"):
+        try:
+            libs[name] = version(name)
+        except PackageNotFoundError:        # pragma: no cover - all are dependencies
+            libs[name] = None
+    return {"python": platform.python_version(), "platform": platform.platform(), **libs}
+
+
+def changed_since_read(study) -> dict:
+    """role -> path of each input of `study` that changed (size or modification time)
+    after it was read: its checksum now is not of the file the numbers came from."""
+    from .io.inputs import file_stamp
+    stamps = getattr(study.inputs, "stamps", {}) or {}
+    return {role: p for role, p in study.inputs.paths.items()
+            if role in stamps and file_stamp(p) != stamps[role]}
+
+
+def changed_note(path, base) -> str:
+    """The note of an input that changed after the run read it."""
+    return (f"{shown_path(path, base)} changed after the run read it: its sha256 in "
+            "provenance.json is of the file as it is now, not of the one the numbers come "
+            "from; run again to use the file as it is")
+
+
+def provenance(scenario, inputs_paths: dict, started: _dt.datetime, out=None,
+               resolution=None, changed=()) -> dict:
+    """What made a run, for provenance.json (docs/run_folder.md).
+
+    Parameters
+    ----------
+    scenario : Scenario or None
+    inputs_paths : dict
+        role -> path of every input (the scenario file first).
+    started : datetime
+        When the run started (UTC).
+    out : path, optional
+        The run folder: each input is also named relative to it (``from_run_folder``),
+        so that ``workbench verify`` finds the inputs of a project moved whole.
+    resolution : str, optional
+        The reporting resolution in force (``workbench run --resolution`` overrides the
+        scenario's ``[period] resolution``; the recorded scenario says the one used).
+    changed : collection of str
+        Roles of the inputs that changed after they were read
+        (:func:`changed_since_read`): marked ``"changed_after_read": true``.
+    """
+    base = scenario_base(scenario)
+    resolved = scenario.resolved() if scenario is not None else None
+    overrides = {}
+    if resolved is not None and resolution is not None:
+        period = resolved.setdefault("period", {})
+        if period.get("resolution") != resolution:     # workbench run --resolution
+            overrides["period.resolution"] = resolution
+        period["resolution"] = resolution
+    inputs = {}
+    for role, p in inputs_paths.items():
+        inputs[role] = {"path": str(p), "sha256": sha256(p),
+                        "in_scenario_folder": shown_path(p, base) if role != "scenario"
+                        else Path(p).name}
+        if out is not None:
+            inputs[role]["from_run_folder"] = relative_from(p, out)
+        if role in changed:
+            inputs[role]["changed_after_read"] = True
     return {
         "package": "deposition-workbench", "version": __version__,
         "run_started_utc": started.strftime("%Y-%m-%dT%H:%M:%SZ"),
         "run_finished_utc": _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ"),
         "scenario_file": str(scenario.path) if scenario is not None and scenario.path else None,
-        "scenario": scenario.resolved() if scenario is not None else None,
-        "inputs": {role: {"path": str(p), "sha256": sha256(p)} for role, p in inputs_paths.items()},
+        "scenario": resolved,
+        "inputs": inputs,
+        "command_line_overrides": overrides,
+        "environment": environment(),
     }
 
 
@@ -289,6 +359,8 @@ def write_input_rows(result, study, scenario, path):
              .sort_values(["file", "_s", "_r", "reason"], kind="stable")
              .drop(columns=["_s", "_r"]))
     table["rows"] = table["rows"].astype(int)
+    base = scenario_base(scenario)            # the inputs as the scenario names them
+    table["file"] = [shown_path(f, base) for f in table["file"]]
     _csv(table, path)
     return path
 
@@ -327,8 +399,13 @@ def input_paths(study, scenario) -> dict:
     return paths
 
 
-def write_files(result, study, scenario, folder: Path, progress=None, started=None) -> dict:
+def write_files(result, study, scenario, folder: Path, progress=None, started=None,
+                out=None) -> dict:
     """Write every output into `folder` (the temporary sibling), provenance.json last.
+
+    `out` is the run folder `folder` becomes (default `folder`): provenance.json names
+    the inputs relative to it.  provenance.json holds the SHA-256 of every other file it
+    lists (``output_sha256``), for ``workbench verify``.
 
     An OS error (disk full, file-size limit, permissions) becomes one
     :class:`OutputError` naming the file and what to do.
@@ -341,16 +418,24 @@ def write_files(result, study, scenario, folder: Path, progress=None, started=No
     started = started or _dt.datetime.now(_dt.timezone.utc)
     say = progress or (lambda text: None)
     folder = Path(folder)
+    base = scenario_base(scenario)
     names = []
     for name, writer in OUTPUT_STEPS + [("provenance.json", None)]:
         say(name)
         path = folder / name
         try:
             if writer is None:
-                prov = provenance(scenario, input_paths(study, scenario), started)
+                changed = changed_since_read(study)
+                prov = provenance(scenario, input_paths(study, scenario), started,
+                                  out=folder if out is None else out,
+                                  resolution=getattr(result, "options", {}).get("resolution"),
+                                  changed=changed)
                 prov["outputs"] = names + ["provenance.json"]
-                prov["input_notes"] = list(study.inputs.ledger.notes)
-                prov["run_notes"] = [str(n) for n in getattr(result, "notes", [])]
+                prov["output_sha256"] = {n: sha256(folder / n) for n in names}
+                prov["input_notes"] = [shown_text(str(n), base) for n in study.inputs.ledger.notes]
+                prov["run_notes"] = ([shown_text(str(n), base)
+                                      for n in getattr(result, "notes", [])]
+                                     + [changed_note(p, base) for p in changed.values()])
                 path.write_text(json.dumps(prov, indent=2, default=str))
                 got = path
             else:
@@ -386,7 +471,8 @@ def write_run(result, study, scenario, out, overwrite=False, progress=None, fold
             return write_run(result, study, scenario, out, progress=progress, folder=f)
     from .analysis.uncertainty import with_uncertainty     # quantiles when [uncertainty] draws > 0
     result = with_uncertainty(result, study, scenario)
-    names = write_files(result, study, scenario, folder.path, progress, started)
+    names = write_files(result, study, scenario, folder.path, progress, started,
+                        out=folder.out)
     try:
         final = folder.commit()
     except OSError as exc:

@@ -177,6 +177,13 @@ def test_save_scenario_reads_back_and_export_writes_the_run_files(app, tmp_path)
     assert back.fixed_velocity == {"NH3": 0.8}
     assert back.data["sites"]["ridge"]["roughness_length_m"] == 0.9
     written = app.export_run(tmp_path / "run")
+    from workbench.runcheck import verify_run          # no scenario file: still verified
+    check = verify_run(tmp_path / "run")
+    assert check.ok, check.text()
+    assert "scenario: no file recorded (a run exported from the apps" in check.text()
+    against = verify_run(tmp_path / "run", scenario=path)   # the scenario saved beside it
+    assert against.ok, against.text()
+    assert "compared by its options (the run records no scenario file)" in against.text()
     cli_written, cli_result, _ = run_scenario(path, tmp_path / "cli_run", quiet=True)
     assert set(written) == set(cli_written)
     import pandas as pd

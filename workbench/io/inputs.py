@@ -30,6 +30,9 @@ class Inputs:
         Met precipitation against gauge depth per sample.
     paths : dict
         Role -> Path of each file read.
+    stamps : dict
+        Role -> :func:`file_stamp` of each file just before it was read: a run folder
+        written later says when a file changed after it was read (provenance.json).
     """
 
     catalogue: SiteCatalogue
@@ -39,6 +42,7 @@ class Inputs:
     ledger: Ledger = field(default_factory=Ledger)
     gauge_check: pd.DataFrame | None = None
     paths: dict = field(default_factory=dict)
+    stamps: dict = field(default_factory=dict)
 
     def subset(self, sites=None, start=None, end=None) -> "Inputs":
         """The same inputs restricted to some sites and a time span [start, end).
@@ -147,6 +151,20 @@ def _hours(time, t0=None, t1=None):
     return idx
 
 
+def file_stamp(path) -> tuple | None:
+    """(size [bytes], modification time [ns]) of a file; of a folder (a zarr store), of
+    its files summed and the latest; None when it cannot be read."""
+    path = Path(path)
+    try:
+        if path.is_dir():
+            st = [f.stat() for f in path.rglob("*") if f.is_file()]
+            return (sum(s.st_size for s in st), max((s.st_mtime_ns for s in st), default=0))
+        st = path.stat()
+    except OSError:
+        return None
+    return (st.st_size, st.st_mtime_ns)
+
+
 def load_inputs(sites, precipitation=None, air=None, met=None, reference_state=None,
                 progress=None, flag_map=None) -> Inputs:
     """Read every given file and cross-check them.
@@ -170,8 +188,11 @@ def load_inputs(sites, precipitation=None, air=None, met=None, reference_state=N
     """
     say = progress or (lambda text: None)
     say("site catalogue")
+    stamps = {role: file_stamp(p) for role, p in (("sites", sites), ("precipitation",
+              precipitation), ("flag_map", flag_map), ("air", air), ("met", met))
+              if p is not None}                   # before reading: what the run used
     cat = read_sites(sites)
-    inp = Inputs(cat, paths={"sites": Path(sites)})
+    inp = Inputs(cat, paths={"sites": Path(sites)}, stamps=stamps)
     inp.ledger.notes.extend(cat.notes)
     if precipitation is not None:
         say("precipitation samples")

@@ -1,0 +1,266 @@
+"""A run folder handed to a colleague: the same files from another folder, a record
+that says what made it (provenance.json, report.html), ``workbench verify`` and
+``workbench compare`` (docs/run_folder.md)."""
+import html
+import json
+import re
+import shutil
+from pathlib import Path
+
+import pandas as pd
+import pytest
+
+from workbench.cli import main
+
+import test_budget as tb
+
+#: The minute report.html was written ("written 2026-12-03 19:35 UTC").
+WRITTEN = re.compile(r"written \d{4}-\d\d-\d\d \d\d:\d\d UTC")
+
+
+def _project(folder: Path, extra: str = "") -> Path:
+    """The tiny scenario and its inputs in `folder` (a project of analyst A)."""
+    folder.mkdir(parents=True)
+    scen = tb._write(folder)
+    if extra:
+        scen.write_text(scen.read_text() + extra)
+    return scen
+
+
+def _run(scen, out, *more) -> Path:
+    assert main(["run", str(scen), "--out", str(out), "--quiet", *more]) == 0
+    return Path(out)
+
+
+@pytest.fixture
+def two_places(tmp_path, monkeypatch):
+    """The same project run by A in one folder and by B from a copy elsewhere, B
+    working in yet another folder."""
+    a = _project(tmp_path / "ann" / "study")
+    run_a = _run(a, tmp_path / "ann" / "study_runs" / "base")
+    copy = tmp_path / "bert" / "home" / "unpacked"
+    shutil.copytree(a.parent, copy)
+    monkeypatch.chdir(tmp_path / "bert")
+    run_b = _run(Path("home/unpacked/scenario.toml"), tmp_path / "bert" / "runs" / "base")
+    return tmp_path, run_a, run_b
+
+
+def test_a_copy_run_elsewhere_writes_the_same_tables_and_report(two_places):
+    """Old code: input_rows.csv, report.html and the notes named A's absolute paths, so
+    a colleague's rerun differed in them (and report.html in plotly's random ids)."""
+    tmp, run_a, run_b = two_places
+    for name in ("budget.csv", "summary.csv", "samples.csv", "input_rows.csv"):
+        assert (run_a / name).read_bytes() == (run_b / name).read_bytes(), name
+    rows = pd.read_csv(run_a / "input_rows.csv")
+    assert set(rows["file"]) == {"precip.csv", "air.csv", "met.csv"}   # as in [inputs]
+    ra, rb = ((r / "report.html").read_text() for r in (run_a, run_b))
+    assert str(tmp) not in ra and str(tmp) not in rb
+    assert WRITTEN.sub("", ra) == WRITTEN.sub("", rb)
+    assert 'id="figure-1"' in ra                      # numbered figures, not random ids
+    for run in (run_a, run_b):
+        prov = json.loads((run / "provenance.json").read_text())
+        assert prov["inputs"]["air"]["in_scenario_folder"] == "air.csv"
+        assert prov["inputs"]["air"]["path"].startswith(str(tmp))   # where it was, too
+        assert not any(str(tmp) in n for n in prov["input_notes"] + prov["run_notes"])
+
+
+def test_provenance_records_the_resolution_the_run_used(tmp_path):
+    """Old code: `--resolution` changed the periods, but provenance.json recorded the
+    scenario's own resolution, so a colleague rerunning from it got other periods."""
+    scen = _project(tmp_path / "p")
+    scen.write_text(scen.read_text().replace('resolution = "month"', 'resolution = "year"'))
+    run = _run(scen, tmp_path / "run", "--resolution", "month")
+    prov = json.loads((run / "provenance.json").read_text())
+    periods = pd.read_csv(run / "summary.csv", dtype={"period": str})["period"]
+    assert set(periods) == {"2021-02"}                                 # months were made
+    assert prov["scenario"]["period"]["resolution"] == "month"
+    assert prov["command_line_overrides"] == {"period.resolution": "month"}
+
+
+def test_report_lists_the_uncertainty_options_not_the_draws(tmp_path):
+    """Old code: with [uncertainty] draws, the report's "Options in force" held the
+    printed xarray Datasets of the draws instead of the draws' options."""
+    scen = _project(tmp_path / "p", "\n[uncertainty]\ndraws = 20\nseed = 7\n")
+    run = _run(scen, tmp_path / "run")
+    page = (run / "report.html").read_text()
+    block = re.search(r"Options in force.*?<pre>(.*?)</pre>", page, re.S).group(1)
+    opts = json.loads(html.unescape(block))
+    assert opts["uncertainty"]["draws"] == 20 and opts["uncertainty"]["seed"] == 7
+    assert "xarray.Dataset" not in page
+
+
+def test_provenance_holds_environment_and_output_checksums(tmp_path):
+    from workbench.writers import sha256
+    run = _run(_project(tmp_path / "p"), tmp_path / "run")
+    prov = json.loads((run / "provenance.json").read_text())
+    assert set(prov["output_sha256"]) == set(prov["outputs"]) - {"provenance.json"}
+    for name, digest in prov["output_sha256"].items():
+        assert sha256(run / name) == digest, name
+    assert {"python", "numpy", "pandas", "xarray"} <= set(prov["environment"])
+    assert prov["inputs"]["met"]["from_run_folder"] == "../p/met.csv"
+
+
+# ---------------------------------------------------------------------- workbench verify
+
+def test_verify_finds_the_inputs_of_a_project_moved_whole(tmp_path, capsys):
+    scen = _project(tmp_path / "ann" / "study")
+    _run(scen, scen.parent / "runs" / "base")
+    moved = tmp_path / "bert" / "study"
+    shutil.move(str(tmp_path / "ann"), str(tmp_path / "bert"))        # A's path is gone
+    assert not scen.exists()
+    assert main(["verify", str(moved / "runs" / "base")]) == 0
+    out = capsys.readouterr().out
+    assert f"scenario: {moved / 'scenario.toml'}: as at the run" in out
+    assert "input met (met.csv): as at the run" in out
+    assert "result: the run folder matches its scenario and inputs" in out
+
+
+def test_verify_names_what_changed_after_the_run(tmp_path, capsys):
+    scen = _project(tmp_path / "p")
+    run = _run(scen, tmp_path / "run")
+    scen.write_text(scen.read_text().replace('sulfate_basis = "total"', 'sulfate_basis = "nss"'))
+    air = scen.parent / "air.csv"
+    air.write_text(air.read_text().replace("2.0,0.5", "2.1,0.5", 1))
+    (scen.parent / "met.csv").rename(scen.parent / "met_old.csv")
+    with open(run / "budget.csv", "a") as f:
+        f.write("edited by hand\n")
+    assert main(["verify", str(run)]) == 1
+    out = capsys.readouterr().out
+    assert "budget.csv was changed after the run" in out
+    assert "differs from the run (sha256" in out.split("scenario:")[1].splitlines()[0]
+    assert "option budget.sulfate_basis: total at the run, nss now" in out
+    assert f"input air (air.csv): {air} differs from the run" in out
+    assert f"input met (met.csv): not found (looked at {scen.parent / 'met.csv'})" in out
+
+
+def test_verify_with_another_scenario_and_a_missing_input(tmp_path, capsys):
+    scen = _project(tmp_path / "p")
+    run = _run(scen, tmp_path / "run")
+    (scen.parent / "air.csv").unlink()
+    assert main(["verify", str(run)]) == 1
+    out = capsys.readouterr().out
+    assert "input air (air.csv): not found (looked at" in out
+    copy = _project(tmp_path / "q")                   # the same files elsewhere
+    assert main(["verify", str(run), "--scenario", str(copy)]) == 0
+    assert f"scenario: {copy}: as at the run" in capsys.readouterr().out
+
+
+def test_verify_accepts_the_command_line_resolution(tmp_path, capsys):
+    scen = _project(tmp_path / "p")
+    scen.write_text(scen.read_text().replace('resolution = "month"', 'resolution = "year"'))
+    run = _run(scen, tmp_path / "run", "--resolution", "month")
+    assert main(["verify", str(run)]) == 0
+    assert "option period.resolution: month at the run, set on the command line" in \
+        capsys.readouterr().out
+
+
+def test_verify_and_check_of_what_is_not_a_run_folder(tmp_path, capsys):
+    scen = _project(tmp_path / "p")
+    assert main(["verify", str(scen.parent)]) == 2
+    err = capsys.readouterr().err
+    assert err.strip() == (f"error: {scen.parent}: no provenance.json, so not a finished "
+                           "run folder (`workbench run` writes it last)")
+    run = _run(scen, tmp_path / "run")
+    assert main(["check", str(run)]) == 2
+    assert "is a run folder, not a scenario: `workbench verify" in capsys.readouterr().err
+
+
+def test_verify_of_a_run_folder_without_output_checksums(tmp_path, capsys):
+    """A run folder of an earlier version (no output_sha256) is checked for the rest."""
+    run = _run(_project(tmp_path / "p"), tmp_path / "run")
+    prov = json.loads((run / "provenance.json").read_text())
+    del prov["output_sha256"]
+    (run / "provenance.json").write_text(json.dumps(prov))
+    assert main(["verify", str(run)]) == 0
+    assert "outputs: not checked" in capsys.readouterr().out
+
+
+# ---------------------------------------------------------------------- workbench compare
+
+def test_compare_lists_the_option_and_the_totals_that_changed(tmp_path, capsys):
+    scen = _project(tmp_path / "p")
+    run_a = _run(scen, tmp_path / "a")
+    scen.write_text(scen.read_text().replace("SO2 = 0.5", "SO2 = 0.8"))
+    run_b = _run(scen, tmp_path / "b")
+    table = tmp_path / "changes.csv"
+    assert main(["compare", str(run_a), str(run_b), "--csv", str(table)]) == 1
+    out = capsys.readouterr().out
+    assert "options (1 differ):\n  dry.fixed_velocity.SO2: 0.5 in A, 0.8 in B" in out
+    assert "inputs (by their SHA-256):\n  scenario: different files" in out
+    diff = pd.read_csv(table, dtype={"period": str})
+    # only the S dry and S total change, by the Vd ratio on the SO2 part (dry S is SO2
+    # alone here: no particle sulfate measured)
+    assert set(zip(diff["element"], diff["pathway"])) == {("S", "dry"), ("S", "total")}
+    ta = pd.read_csv(run_a / "budget.csv", dtype={"period": str})
+    so2 = ta[(ta["species"] == "SO2")].set_index("period")["flux_kg_ha_yr"]
+    dry = diff[diff["pathway"] == "dry"].set_index("period")
+    for period, row in dry.iterrows():
+        assert row["change_kg_ha_yr"] == pytest.approx(so2[period] * (0.8 / 0.5 - 1), rel=1e-9)
+
+
+def test_compare_of_a_rerun_elsewhere_finds_nothing(two_places, capsys):
+    _, run_a, run_b = two_places
+    assert main(["compare", str(run_a), str(run_b)]) == 0
+    out = capsys.readouterr().out
+    assert "options: the same" in out and "inputs: the same files (SHA-256)" in out
+    assert "shared totals are the same" in out
+
+
+def test_compare_of_other_periods_says_so(tmp_path, capsys):
+    scen = _project(tmp_path / "p")
+    run_a = _run(scen, tmp_path / "a")
+    run_b = _run(scen, tmp_path / "b", "--resolution", "season")
+    assert main(["compare", str(run_a), str(run_b)]) == 1
+    out = capsys.readouterr().out
+    assert "period.resolution: month in A, season in B" in out
+    assert "only in A" in out and "only in B" in out
+
+
+def test_an_input_edited_while_the_run_reads_it_is_named(tmp_path, monkeypatch, capsys):
+    """Old code: provenance.json took the checksums at the end, so an input edited after
+    it was read (in an editor, while a run or an app session was open) was recorded as
+    the file the numbers came from.  Seen in the trial: a run that read an edited
+    air.csv recorded the checksum of the file restored before the run ended."""
+    from workbench import writers
+    scen = _project(tmp_path / "p")
+    air = scen.parent / "air.csv"
+    first_name, first_writer = writers.OUTPUT_STEPS[0]
+
+    def edit_then_write(result, study, scenario, path):
+        air.write_text(air.read_text() + "\n")         # someone saves the file meanwhile
+        return first_writer(result, study, scenario, path)
+    monkeypatch.setattr(writers, "OUTPUT_STEPS",
+                        [(first_name, edit_then_write)] + writers.OUTPUT_STEPS[1:])
+    run = _run(scen, tmp_path / "run")
+    err = capsys.readouterr().err
+    assert ("warning: " + str(air) + " changed after the run read it") in err
+    prov = json.loads((run / "provenance.json").read_text())
+    assert prov["inputs"]["air"].get("changed_after_read") is True
+    assert "changed_after_read" not in prov["inputs"]["met"]
+    assert any(n.startswith("air.csv changed after the run read it") for n in prov["run_notes"])
+    assert main(["verify", str(run)]) == 1
+    assert "input air (air.csv): changed after the run read it" in capsys.readouterr().out
+
+
+def test_budget_differences_counts_tolerance_missing_values_and_status(tmp_path):
+    """Unit check of :func:`workbench.runcompare.budget_differences` on hand-made tables
+    (values invented): a change within `rtol` is equal, a total missing in one run
+    (empty) differs, a status change alone differs, rows of one run only are counted."""
+    from workbench.runcompare import budget_differences
+    head = "site,receptor,period,element,pathway,species,flux_kg_ha_yr,status\n"
+    rows_a = ["s1,grass,2020,S,total,all,10.0,complete", "s1,grass,2020,N,total,all,5.0,complete",
+              "s1,grass,2020,N,dry,all,2.0,complete", "s1,grass,2020,S,dry,all,1.0,complete",
+              "s1,grass,2020,S,dry,SO2,1.0,complete", "s1,grass,2021,S,total,all,3.0,complete"]
+    rows_b = ["s1,grass,2020,S,total,all,10.000001,complete", "s1,grass,2020,N,total,all,,missing",
+              "s1,grass,2020,N,dry,all,2.0,flagged", "s1,grass,2020,S,dry,all,1.0,complete",
+              "s1,grass,2020,S,dry,SO2,1.5,complete"]
+    for name, rows in (("a", rows_a), ("b", rows_b)):
+        (tmp_path / name).mkdir()
+        (tmp_path / name / "budget.csv").write_text(head + "\n".join(rows) + "\n")
+    exact, counts = budget_differences(tmp_path / "a", tmp_path / "b")
+    assert counts == {"shared": 4, "only_a": 1, "only_b": 0}     # species SO2 not a total
+    assert list(zip(exact["element"], exact["pathway"])) == [("N", "total"), ("S", "total"),
+                                                              ("N", "dry")]
+    loose, _ = budget_differences(tmp_path / "a", tmp_path / "b", rtol=1e-6)
+    assert list(zip(loose["element"], loose["pathway"])) == [("N", "total"), ("N", "dry")]
+    assert loose["b_status"].tolist() == ["missing", "flagged"]

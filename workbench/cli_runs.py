@@ -1,0 +1,61 @@
+"""``workbench verify RUN`` and ``workbench compare RUN_A RUN_B``: run folders that are
+handed on (docs/run_folder.md).  Logic in :mod:`workbench.runcheck` and
+:mod:`workbench.runcompare`; here the arguments and the exit codes."""
+from __future__ import annotations
+
+from pathlib import Path
+
+
+def cmd_verify(args) -> int:
+    """Exit 0 when the run folder matches its scenario and inputs, 1 when not."""
+    from .runcheck import verify_run
+    v = verify_run(args.run, scenario=args.scenario)
+    print(v.text())
+    return 0 if v.ok else 1
+
+
+def cmd_compare(args) -> int:
+    """Exit 0 when the runs hold the same options, inputs and totals, 1 when not."""
+    from .runcompare import compare_runs
+    c = compare_runs(args.run_a, args.run_b, rtol=args.rtol,
+                     rows=None if args.all else args.rows)
+    print(c.text())
+    if args.csv is not None:
+        from .runfolder import atomic_write
+        atomic_write(Path(args.csv), lambda tmp: c.budget.to_csv(tmp, index=False))
+        print(f"every differing total: {Path(args.csv).resolve()}")
+    return 0 if c.same else 1
+
+
+def run_folder_hint(path) -> str | None:
+    """For ``workbench check`` given a run folder: what to type instead."""
+    p = Path(path)
+    if p.is_dir() and (p / "provenance.json").is_file():
+        return (f"{p.resolve()} is a run folder, not a scenario: `workbench verify {path}` "
+                "checks it against its scenario and inputs; `workbench check` takes the "
+                "scenario's .toml file")
+    return None
+
+
+def add_parsers(sub) -> None:
+    """The ``verify`` and ``compare`` commands on subparsers `sub`."""
+    from .runcompare import SHOWN_ROWS
+    v = sub.add_parser("verify", help="check that a run folder still matches its scenario "
+                       "and input files (checksums in provenance.json)")
+    v.add_argument("run", type=Path, help="a run folder written by `workbench run`")
+    v.add_argument("--scenario", type=Path, default=None, help="the scenario file to check "
+                   "against (default: the run's own, found relative to the run folder, "
+                   "then where it was)")
+    v.set_defaults(func=cmd_verify)
+    c = sub.add_parser("compare", help="what differs between two run folders: options, "
+                       "inputs and the budget totals per site, receptor and period")
+    c.add_argument("run_a", type=Path)
+    c.add_argument("run_b", type=Path)
+    c.add_argument("--rtol", type=float, default=0.0, help="relative difference below "
+                   "which two totals count as equal (default 0: as written)")
+    c.add_argument("--rows", type=int, default=SHOWN_ROWS, help="differing totals listed, "
+                   f"largest change first (default {SHOWN_ROWS})")
+    c.add_argument("--all", action="store_true", help="list every differing total")
+    c.add_argument("--csv", type=Path, default=None, metavar="FILE",
+                   help="write every differing total to FILE")
+    c.set_defaults(func=cmd_compare)
