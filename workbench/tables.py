@@ -149,7 +149,9 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     failed a check or the sulfate basis fell back (its span row stays ``flagged``).
     The rows list the years used and excluded, and the components missing and flagged
     in any year used (``missing_components``, ``flagged_components``: the union over
-    those years, in component order), so that a ``partial`` span row says what it lacks.
+    those years, in component order), so that a ``partial`` span row says what it lacks,
+    and the notes of those years with the years that carry each (``note``,
+    :func:`_notes_by_year`), so that a ``flagged`` span row says why.
     """
     t = year_table.copy()
     t["year"] = t["period_start"].dt.year
@@ -191,9 +193,40 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     for col in ("missing_components", "flagged_components"):
         agg[col] = _union_of_parts(used, keys, col, order).reindex(
             pd.MultiIndex.from_frame(agg[keys])).fillna("").to_numpy(dtype=object)
+    agg["note"] = _notes_by_year(used, keys).reindex(
+        pd.MultiIndex.from_frame(agg[keys])).fillna("").to_numpy(dtype=object)
     cols = list(BUDGET_COLUMNS) + ["period", "years_used", "years_excluded",
-                                   "missing_components", "flagged_components"]
+                                   "missing_components", "flagged_components", "note"]
     return agg[cols]
+
+
+def _notes_by_year(rows: pd.DataFrame, keys) -> pd.Series:
+    """The span row's ``note``: the yearly rows' notes over the years used, each note
+    once with the years that carry it (``2017 2019: precipitation: 1 week without a
+    usable sample (...)``; ``every year used: not measured at the site (...)`` when each
+    year used carries it), joined with "; " in the order of their first year.
+
+    A yearly note of several parts ("; "-joined, :func:`workbench.budgetstatus.join_notes`)
+    counts part by part, so a part shared by some years is listed once.  Only the words
+    of the yearly rows are used; years without a note add nothing (``years_used`` lists
+    them).  Indexed by `keys`; groups without a note are left out."""
+    if "note" not in rows:
+        return pd.Series(dtype=object, index=pd.MultiIndex.from_tuples([], names=keys))
+    n_years = rows.groupby(keys, sort=False)["year"].nunique().rename("_n_years")
+    parts = rows[keys + ["year"]].assign(
+        _part=rows["note"].fillna("").astype(str).str.split("; "))
+    parts = parts.explode("_part")
+    parts = parts[parts["_part"].str.strip() != ""].drop_duplicates()
+    if parts.empty:
+        return pd.Series(dtype=object, index=pd.MultiIndex.from_tuples([], names=keys))
+    g = parts.sort_values("year", kind="stable").groupby(keys + ["_part"], sort=False)["year"]
+    each = pd.DataFrame({"_years": g.agg(lambda y: " ".join(str(v) for v in y)),
+                         "_count": g.size(), "_first": g.min()}).reset_index()
+    each = each.merge(n_years.reset_index(), on=keys, how="left")
+    label = np.where(each["_count"] == each["_n_years"], "every year used", each["_years"])
+    each["_text"] = pd.Series(label, index=each.index) + ": " + each["_part"]
+    each = each.sort_values(keys + ["_first"], kind="stable")
+    return each.groupby(keys, sort=False)["_text"].agg("; ".join)
 
 
 def _union_of_parts(rows: pd.DataFrame, keys, col: str, order: dict) -> pd.Series:
