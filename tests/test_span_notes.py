@@ -54,10 +54,7 @@ def test_span_row_note_is_empty_when_no_year_has_one():
 
 @pytest.fixture(scope="module")
 def ridge_run(tmp_path_factory):
-    import sys
-    from pathlib import Path
-    sys.path.insert(0, str(Path(__file__).parent / "ui"))
-    from demo_subset import write_demo_subset
+    from ui.demo_subset import write_demo_subset
 
     from workbench.pipeline import Study
     from workbench.scenario import load_scenario
