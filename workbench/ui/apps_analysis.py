@@ -413,7 +413,7 @@ def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
     """
     import pandas as pd
 
-    from ..analysis.exceedance import exceedance_table
+    from ..analysis.exceedance import NO_CRITICAL_LOADS, exceedance_table
     from ..analysis.trends import trend_table
     rows = []
     for site, res in results.items():
@@ -433,7 +433,7 @@ def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
             row[f"{el}_n_years"] = float(r.get("n_years", np.nan))
         ex = exceedance_table(res, catalogue)
         ex = ex[(ex["site"] == site) & (ex["receptor"] == own) & (ex["period"] == "span")]
-        if len(ex):
+        if len(ex) and ex.iloc[0]["note"] != NO_CRITICAL_LOADS:
             e = ex.iloc[0]
             row.update(ex_acidity_eq_ha_yr=e["ex_acidity_eq_ha_yr"],
                        ex_nutrient_n_eq_ha_yr=e["ex_nutrient_n_eq_ha_yr"],
