@@ -189,7 +189,8 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         self.note_w.value += self._no_effect_note(a, values, site, years, rec)
         refresh(self.fig, fig)
         show = shown.pivot_table(index="value", columns="total", values="rate", sort=False)
-        notes = shown.groupby("total", sort=False)["status"].agg(figures.status_note)
+        notes = {name: figures.status_note(g["status"], g.get("missing", ()))
+                 for name, g in shown.groupby("total", sort=False)}
         # every number its unit, and a total that is not whole says so in its heading
         show.columns = [f"{total_heading(c, unit)}{notes.get(c, '')}" for c in show.columns]
         show.columns.name = None
