@@ -209,24 +209,33 @@ def _notes_by_year(rows: pd.DataFrame, keys) -> pd.Series:
     A yearly note of several parts ("; "-joined, :func:`workbench.budgetstatus.join_notes`)
     counts part by part, so a part shared by some years is listed once.  Only the words
     of the yearly rows are used; years without a note add nothing (``years_used`` lists
-    them).  Indexed by `keys`; groups without a note are left out."""
+    them).  Indexed by `keys`; groups without a note are left out.  The loop runs over
+    the rows that carry a note (a few per site and component), never over hours."""
+    empty = pd.Series(dtype=object, index=pd.MultiIndex.from_tuples([], names=keys))
     if "note" not in rows:
-        return pd.Series(dtype=object, index=pd.MultiIndex.from_tuples([], names=keys))
-    n_years = rows.groupby(keys, sort=False)["year"].nunique().rename("_n_years")
-    parts = rows[keys + ["year"]].assign(
-        _part=rows["note"].fillna("").astype(str).str.split("; "))
-    parts = parts.explode("_part")
-    parts = parts[parts["_part"].str.strip() != ""].drop_duplicates()
-    if parts.empty:
-        return pd.Series(dtype=object, index=pd.MultiIndex.from_tuples([], names=keys))
-    g = parts.sort_values("year", kind="stable").groupby(keys + ["_part"], sort=False)["year"]
-    each = pd.DataFrame({"_years": g.agg(lambda y: " ".join(str(v) for v in y)),
-                         "_count": g.size(), "_first": g.min()}).reset_index()
-    each = each.merge(n_years.reset_index(), on=keys, how="left")
-    label = np.where(each["_count"] == each["_n_years"], "every year used", each["_years"])
-    each["_text"] = pd.Series(label, index=each.index) + ": " + each["_part"]
-    each = each.sort_values(keys + ["_first"], kind="stable")
-    return each.groupby(keys, sort=False)["_text"].agg("; ".join)
+        return empty
+    note = rows["note"].fillna("").astype(str).to_numpy(dtype=object)
+    has = note != ""
+    if not has.any():
+        return empty
+    n_years = rows.groupby(keys, sort=False)["year"].nunique()
+    n_years = dict(zip(n_years.index, n_years.to_numpy()))
+    noted = rows.loc[has, keys]
+    by_key: dict = {}                 # key -> part -> set of years (parts in first order)
+    for key, year, text in zip(zip(*(noted[k].to_numpy() for k in keys)),
+                               rows.loc[has, "year"].to_numpy(), note[has]):
+        parts = by_key.setdefault(key, {})
+        for part in text.split("; "):
+            if part.strip():
+                parts.setdefault(part, set()).add(int(year))
+    out = {}
+    for key, parts in by_key.items():
+        items = sorted(parts.items(), key=lambda kv: min(kv[1]))      # stable: ties keep order
+        out[key] = "; ".join(
+            ("every year used" if len(ys) == n_years[key] else " ".join(map(str, sorted(ys))))
+            + ": " + part for part, ys in items)
+    return pd.Series(list(out.values()), dtype=object,
+                     index=pd.MultiIndex.from_tuples(list(out), names=keys))
 
 
 def _union_of_parts(rows: pd.DataFrame, keys, col: str, order: dict) -> pd.Series:
