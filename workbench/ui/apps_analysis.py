@@ -400,6 +400,18 @@ def trend_unit(element: str, unit: str) -> str:
     return f"{amount} {element}/{rest}" if amount in ("kg", "mmol") else unit
 
 
+def _lacking(table, receptor) -> str:
+    """`` (N without NO2)``: the components the span's S and N totals of `receptor` lack,
+    for the status of an exceedance (``flagged`` covers a partial deposition too, and
+    read as merely flagged beside the table's "status of the totals"); ``""`` when none."""
+    span = table[(table["period"].astype(str) == "span") & (table["receptor"] == receptor)
+                 & (table["pathway"] == "total") & (table["species"] == "all")]
+    parts = [f"{r['element']} without {', '.join(str(r['missing_components']).split())}"
+             for _, r in span.iterrows()
+             if isinstance(r.get("missing_components"), str) and r["missing_components"].strip()]
+    return f" ({'; '.join(parts)})" if parts else ""
+
+
 def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
     """The numbers behind :func:`network_analysis_table`, in no unit of display.
 
@@ -409,7 +421,8 @@ def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
         site, receptor; per element ``{el}_slope_kg_ha_yr`` (Sen slope [kg ha-1 yr-1 per
         yr], NaN without a slope), ``{el}_p``, ``{el}_valid``, ``{el}_n_years`` (NaN
         without a trend row); ``ex_acidity_eq_ha_yr``, ``ex_nutrient_n_eq_ha_yr``
-        [eq ha-1 yr-1] and ``exceedance_status`` of the span.
+        [eq ha-1 yr-1] and ``exceedance_status`` of the span (exceedance.csv's status,
+        with the components the S and N totals lack: ``flagged (N without NO2)``).
     """
     import pandas as pd
 
@@ -437,7 +450,7 @@ def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
             e = ex.iloc[0]
             row.update(ex_acidity_eq_ha_yr=e["ex_acidity_eq_ha_yr"],
                        ex_nutrient_n_eq_ha_yr=e["ex_nutrient_n_eq_ha_yr"],
-                       exceedance_status=e["status"])
+                       exceedance_status=e["status"] + _lacking(res.table, own))
         else:
             row.update(ex_acidity_eq_ha_yr=np.nan, ex_nutrient_n_eq_ha_yr=np.nan,
                        exceedance_status="no critical loads")
