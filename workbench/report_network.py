@@ -66,8 +66,10 @@ def site_summary(span: pd.DataFrame, catalogue, n_periods: int, trends=None,
             used = _years(r.get("years_used"))
             status = str(r["status"])
             miss = r.get("missing_components")
-            if status == "partial" and isinstance(miss, str) and miss:
-                status += f" (no {miss})"
+            # a flagged total may lack a component too (flagged wins over partial in
+            # the status of a sum): it read "flagged" alone, beside a ranking apart
+            if status != "missing" and isinstance(miss, str) and miss.strip():
+                status += f" (no {', '.join(miss.split())})"
             row[f"{el} [kg/ha/yr]"] = r["flux_kg_ha_yr"]
             row[f"{el} status"] = status
             row[f"{el} years"] = (f"{year_span(used)} ({len(used)} of {n_periods})"

@@ -149,7 +149,9 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     failed a check or the sulfate basis fell back (its span row stays ``flagged``).
     The rows list the years used and excluded, and the components missing and flagged
     in any year used (``missing_components``, ``flagged_components``: the union over
-    those years, in component order), so that a ``partial`` span row says what it lacks.
+    those years, in component order), so that a ``partial`` span row says what it lacks,
+    and the notes of those years with the years that carry each (``note``,
+    :func:`_notes_by_year`), so that a ``flagged`` span row says why.
     """
     t = year_table.copy()
     t["year"] = t["period_start"].dt.year
@@ -191,9 +193,49 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     for col in ("missing_components", "flagged_components"):
         agg[col] = _union_of_parts(used, keys, col, order).reindex(
             pd.MultiIndex.from_frame(agg[keys])).fillna("").to_numpy(dtype=object)
+    agg["note"] = _notes_by_year(used, keys).reindex(
+        pd.MultiIndex.from_frame(agg[keys])).fillna("").to_numpy(dtype=object)
     cols = list(BUDGET_COLUMNS) + ["period", "years_used", "years_excluded",
-                                   "missing_components", "flagged_components"]
+                                   "missing_components", "flagged_components", "note"]
     return agg[cols]
+
+
+def _notes_by_year(rows: pd.DataFrame, keys) -> pd.Series:
+    """The span row's ``note``: the yearly rows' notes over the years used, each note
+    once with the years that carry it (``2017 2019: precipitation: 1 week without a
+    usable sample (...)``; ``every year used: not measured at the site (...)`` when each
+    year used carries it), joined with "; " in the order of their first year.
+
+    A yearly note of several parts ("; "-joined, :func:`workbench.budgetstatus.join_notes`)
+    counts part by part, so a part shared by some years is listed once.  Only the words
+    of the yearly rows are used; years without a note add nothing (``years_used`` lists
+    them).  Indexed by `keys`; groups without a note are left out.  The loop runs over
+    the rows that carry a note (a few per site and component), never over hours."""
+    empty = pd.Series(dtype=object, index=pd.MultiIndex.from_tuples([], names=keys))
+    if "note" not in rows:
+        return empty
+    note = rows["note"].fillna("").astype(str).to_numpy(dtype=object)
+    has = note != ""
+    if not has.any():
+        return empty
+    n_years = rows.groupby(keys, sort=False)["year"].nunique()
+    n_years = dict(zip(n_years.index, n_years.to_numpy()))
+    noted = rows.loc[has, keys]
+    by_key: dict = {}                 # key -> part -> set of years (parts in first order)
+    for key, year, text in zip(zip(*(noted[k].to_numpy() for k in keys)),
+                               rows.loc[has, "year"].to_numpy(), note[has]):
+        parts = by_key.setdefault(key, {})
+        for part in text.split("; "):
+            if part.strip():
+                parts.setdefault(part, set()).add(int(year))
+    out = {}
+    for key, parts in by_key.items():
+        items = sorted(parts.items(), key=lambda kv: min(kv[1]))      # stable: ties keep order
+        out[key] = "; ".join(
+            ("every year used" if len(ys) == n_years[key] else " ".join(map(str, sorted(ys))))
+            + ": " + part for part, ys in items)
+    return pd.Series(list(out.values()), dtype=object,
+                     index=pd.MultiIndex.from_tuples(list(out), names=keys))
 
 
 def _union_of_parts(rows: pd.DataFrame, keys, col: str, order: dict) -> pd.Series:

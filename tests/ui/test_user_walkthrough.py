@@ -114,7 +114,7 @@ def test_sweep_table_heading_says_partial(two_sites_2021):
                                   years=(2021, 2021), key="fixed_velocity.SO2", run=False)
         app.steps_w.value = 2
         app.run()
-    assert "N total [kg/ha/yr] (partial)" in app.table_w.value      # mere: no NO2
+    assert "N total [kg/ha/yr] (partial, no NO2)" in app.table_w.value   # mere: no NO2
     assert "S total [kg/ha/yr]<" in app.table_w.value                # complete: plain
 
 

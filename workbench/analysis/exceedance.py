@@ -340,6 +340,12 @@ def not_determined(exceedance, lower_bound):
     return np.asarray(lower_bound, bool) & (np.asarray(exceedance, float) == 0)
 
 
+#: The note of a receptor without any critical load (its rows in exceedance.csv).
+NO_CRITICAL_LOADS = ("no critical loads for this receptor in sites.toml (neither "
+                     "[site.critical_loads] nor [site.critical_loads.<receptor>]): "
+                     "no exceedance")
+
+
 def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss") -> pd.DataFrame:
     """The rows of ``exceedance.csv`` from annual S and N totals and the critical loads.
 
@@ -357,7 +363,10 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
     -------
     DataFrame
         :data:`EXCEEDANCE_COLUMNS`, then the loads, the S and N reductions and a note.
-        Pairs of site and receptor without any critical load are left out; a status
+        A pair of site and receptor without any critical load has its rows too, with
+        its deposition, no exceedance (empty, region -1), status ``missing`` and the
+        note :data:`NO_CRITICAL_LOADS` (it had no row, and a reader of the file found
+        nothing); otherwise a status
         other than ``complete`` comes from the S or N total and the note says which.
         A receptor without its own ``[site.critical_loads.<receptor>]`` table takes the
         site's loads, and the note says that they were given for the site's land use.
@@ -377,8 +386,9 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
          "_borrowed": "the site's critical loads, given for " + s.land_use
          if r != s.land_use and r not in s.receptor_critical_loads else ""}
         for s in catalogue for r in s.surfaces], columns=["site", "receptor", "_borrowed"])
-    t = t.merge(loads, on=["site", "receptor"], how="inner").merge(
+    t = t.merge(loads.assign(_has_loads=True), on=["site", "receptor"], how="left").merge(
         borrowed, on=["site", "receptor"], how="left")
+    none = ~t["_has_loads"].eq(True).to_numpy()     # no load at all: a row saying so
     s_dep = t["s_dep_eq_ha_yr"].to_numpy(float)
     n_dep = t["n_dep_eq_ha_yr"].to_numpy(float)
     net = (s_dep < 0) | (n_dep < 0)              # NaN compares False
@@ -395,8 +405,11 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
     t["s_reduction_eq_ha_yr"] = np.where(acid_undetermined, np.nan, ex.s_reduction)
     t["n_reduction_eq_ha_yr"] = np.where(acid_undetermined, np.nan, ex.n_reduction)
     t["status"], note = _status(t)
+    t["status"] = np.where(none, "missing", t["status"])
     sea = "S includes sea-salt sulfate (sulfate_basis = total)" if sulfate_basis == "total" else ""
-    no_acid = np.where(t[list(ACIDITY_KEYS)].isna().any(axis=1), "no complete acidity function", "")
+    no_acid = np.where(t[list(ACIDITY_KEYS)].isna().any(axis=1) & ~none,
+                       "no complete acidity function", "")
+    t["_borrowed"] = np.where(none, "", t["_borrowed"].fillna(""))
     net_note = np.where(n_dep < 0, "net N emission (N total below 0): no exceedance",
                         np.where(s_dep < 0, "net S emission (S total below 0): no exceedance", ""))
     und = np.select([acid_undetermined & nut_undetermined, acid_undetermined, nut_undetermined],
@@ -406,7 +419,8 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
     some = (~acid_undetermined & np.isfinite(ex.exceedance)) | (~nut_undetermined & np.isfinite(nut))
     bound = _join(np.where(lower & some, "exceedances are lower bounds (deposition partial)", ""),
                   und)
-    note = _join(note, pd.Series(bound, dtype=object), pd.Series(net_note, dtype=object),
+    note = _join(pd.Series(np.where(none, NO_CRITICAL_LOADS, ""), dtype=object),
+                 note, pd.Series(bound, dtype=object), pd.Series(net_note, dtype=object),
                  pd.Series([sea] * len(t), dtype=object), pd.Series(no_acid, dtype=object),
                  t["_borrowed"])
     t["note"] = note

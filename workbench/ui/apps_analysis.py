@@ -329,7 +329,8 @@ def _range_text(row: dict, draws: int) -> str:
     return out.rstrip(";") + "."
 
 
-def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":
+def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
+                           parts=None) -> "pd.DataFrame":
     """Trend and exceedance columns of the network overview, per site on its own surface.
 
     Parameters
@@ -338,18 +339,94 @@ def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":
         site -> ``Result`` of a yearly run of that site.
     catalogue : SiteCatalogue
         The sites (own land use and critical loads).
+    unit : str
+        A key of :data:`workbench.ui.summaries.UNITS`: the unit of the trend slopes
+        (``eq/ha/yr`` gives eq ha-1 yr-1 per yr; the p value and the years are the same
+        in every unit).  The exceedances stay in eq/ha/yr (the critical loads' unit).
+    parts : DataFrame, optional
+        :func:`network_analysis_parts` of the same runs (computed when not given), so
+        that a change of unit formats the same numbers again.
 
     Returns
     -------
     DataFrame
         site, receptor; ``S_trend`` and ``N_trend`` (Sen slope of the annual totals
-        [kg ha-1 yr-1 per yr], with p and "not valid" when fewer than the minimum of
-        complete years); the span's ``ex_acidity_eq_ha_yr``, ``ex_nutrient_n_eq_ha_yr``
-        and ``exceedance_status``.
+        [unit per yr], with p and "not valid" when fewer than the minimum of complete
+        years); the span's ``ex_acidity_eq_ha_yr``, ``ex_nutrient_n_eq_ha_yr`` and
+        ``exceedance_status``.
     """
     import pandas as pd
 
-    from ..analysis.exceedance import exceedance_table
+    from .summaries import to_unit
+    if parts is None:
+        parts = network_analysis_parts(results, catalogue)
+    rows = []
+    for _, p in parts.iterrows():
+        row = {"site": p["site"], "receptor": p["receptor"]}
+        for el in ("S", "N"):
+            n = p[f"{el}_n_years"]
+            if not np.isfinite(n):
+                row[f"{el}_trend"] = "–"
+                continue
+            n = int(n)
+            years_text = f"{n} complete year{'' if n == 1 else 's'}"
+            slope = p[f"{el}_slope_kg_ha_yr"]
+            if not np.isfinite(slope):                # too few years for a slope
+                row[f"{el}_trend"] = f"no slope: {years_text}"
+                continue
+            # kg/ha/yr of the element -> the unit shown: the factor of a yearly rate
+            factor = float(to_unit(1.0, el, unit) / to_unit(1.0, el, "kg/ha/yr"))
+            row[f"{el}_trend"] = (
+                f"{slope * factor:+.3g} {trend_unit(el, unit)} per yr (p {p[f'{el}_p']:.2g}"
+                + ("" if p[f"{el}_valid"] else
+                   f"; indicative only: {years_text}, a valid trend needs {MIN_YEARS}")
+                + ")")
+        row.update(ex_acidity_eq_ha_yr=p["ex_acidity_eq_ha_yr"],
+                   ex_nutrient_n_eq_ha_yr=p["ex_nutrient_n_eq_ha_yr"],
+                   exceedance_status=p["exceedance_status"])
+        rows.append(row)
+    return pd.DataFrame(rows, columns=["site", "receptor", "S_trend", "N_trend",
+                                       "ex_acidity_eq_ha_yr", "ex_nutrient_n_eq_ha_yr",
+                                       "exceedance_status"])
+
+
+def trend_unit(element: str, unit: str) -> str:
+    """The unit of a yearly rate of `element` as a trend's text says it.
+
+    >>> trend_unit("S", "kg/ha/yr"), trend_unit("N", "eq/ha/yr"), trend_unit("N", "mmol/m2/yr")
+    ('kg S/ha/yr', 'eq/ha/yr', 'mmol N/m2/yr')
+    """
+    amount, _, rest = unit.partition("/")
+    return f"{amount} {element}/{rest}" if amount in ("kg", "mmol") else unit
+
+
+def _lacking(table, receptor) -> str:
+    """`` (N without NO2)``: the components the span's S and N totals of `receptor` lack,
+    for the status of an exceedance (``flagged`` covers a partial deposition too, and
+    read as merely flagged beside the table's "status of the totals"); ``""`` when none."""
+    span = table[(table["period"].astype(str) == "span") & (table["receptor"] == receptor)
+                 & (table["pathway"] == "total") & (table["species"] == "all")]
+    parts = [f"{r['element']} without {', '.join(str(r['missing_components']).split())}"
+             for _, r in span.iterrows()
+             if isinstance(r.get("missing_components"), str) and r["missing_components"].strip()]
+    return f" ({'; '.join(parts)})" if parts else ""
+
+
+def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
+    """The numbers behind :func:`network_analysis_table`, in no unit of display.
+
+    Returns
+    -------
+    DataFrame
+        site, receptor; per element ``{el}_slope_kg_ha_yr`` (Sen slope [kg ha-1 yr-1 per
+        yr], NaN without a slope), ``{el}_p``, ``{el}_valid``, ``{el}_n_years`` (NaN
+        without a trend row); ``ex_acidity_eq_ha_yr``, ``ex_nutrient_n_eq_ha_yr``
+        [eq ha-1 yr-1] and ``exceedance_status`` of the span (exceedance.csv's status,
+        with the components the S and N totals lack: ``flagged (N without NO2)``).
+    """
+    import pandas as pd
+
+    from ..analysis.exceedance import NO_CRITICAL_LOADS, exceedance_table
     from ..analysis.trends import trend_table
     rows = []
     for site, res in results.items():
@@ -362,27 +439,18 @@ def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":
         tr = tr[tr["values"] == "all"] if len(tr) else tr
         for el in ("S", "N"):
             t = tr[tr["element"] == el] if len(tr) else tr
-            if len(t):
-                r = t.iloc[0]
-                n = int(r["n_years"])
-                years_text = f"{n} complete year{'' if n == 1 else 's'}"
-                if not np.isfinite(r["sen_slope_per_yr"]):   # too few years for a slope
-                    row[f"{el}_trend"] = f"no slope: {years_text}"
-                else:
-                    row[f"{el}_trend"] = (
-                        f"{r['sen_slope_per_yr']:+.3g} kg {el}/ha/yr per yr (p {r['p_value']:.2g}"
-                        + ("" if r["valid"] else
-                           f"; indicative only: {years_text}, a valid trend needs {MIN_YEARS}")
-                        + ")")
-            else:
-                row[f"{el}_trend"] = "–"
+            r = t.iloc[0] if len(t) else {}
+            row[f"{el}_slope_kg_ha_yr"] = float(r.get("sen_slope_per_yr", np.nan))
+            row[f"{el}_p"] = float(r.get("p_value", np.nan))
+            row[f"{el}_valid"] = bool(r.get("valid", False))
+            row[f"{el}_n_years"] = float(r.get("n_years", np.nan))
         ex = exceedance_table(res, catalogue)
         ex = ex[(ex["site"] == site) & (ex["receptor"] == own) & (ex["period"] == "span")]
-        if len(ex):
+        if len(ex) and ex.iloc[0]["note"] != NO_CRITICAL_LOADS:
             e = ex.iloc[0]
             row.update(ex_acidity_eq_ha_yr=e["ex_acidity_eq_ha_yr"],
                        ex_nutrient_n_eq_ha_yr=e["ex_nutrient_n_eq_ha_yr"],
-                       exceedance_status=e["status"])
+                       exceedance_status=e["status"] + _lacking(res.table, own))
         else:
             row.update(ex_acidity_eq_ha_yr=np.nan, ex_nutrient_n_eq_ha_yr=np.nan,
                        exceedance_status="no critical loads")

@@ -189,7 +189,8 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         self.note_w.value += self._no_effect_note(a, values, site, years, rec)
         refresh(self.fig, fig)
         show = shown.pivot_table(index="value", columns="total", values="rate", sort=False)
-        notes = shown.groupby("total", sort=False)["status"].agg(figures.status_note)
+        notes = {name: figures.status_note(g["status"], g.get("missing", ()))
+                 for name, g in shown.groupby("total", sort=False)}
         # every number its unit, and a total that is not whole says so in its heading
         show.columns = [f"{total_heading(c, unit)}{notes.get(c, '')}" for c in show.columns]
         show.columns.name = None
@@ -262,16 +263,15 @@ class NetworkOverview(SavedText, widgets.VBox):
         self.rankings = {}                 # element -> the ranking drawn (workbench.ranking)
         self._draw(create=True)
         self.unit_w.observe(lambda c: self._draw(), "value")
-        from .apps_analysis import network_analysis_table
-        self.analysis = network_analysis_table(self.results, self.session.study.catalogue())
+        from .apps_analysis import network_analysis_parts
+        # the trends' and exceedances' numbers once; each unit formats them again
+        self._analysis_parts = network_analysis_parts(self.results,
+                                                      self.session.study.catalogue())
         # no width of its own: the column stretches it (a 100 % width plus the widget's
         # margins ran 4 px past the app); a wide table scrolls inside its own box
-        self.analysis_w = widgets.HTML("<b>Trends of the annual totals [kg/ha/yr per yr] "
-                                       "and critical-load exceedance of the span "
-                                       "[eq/ha/yr]</b>"
-                                       "<div style='overflow-x:auto;max-width:100%'>"
-                                       + table_html(self.analysis.rename(
-                                           columns=ANALYSIS_HEADINGS)) + "</div>")
+        self.analysis_w = widgets.HTML()
+        self._draw_analysis()
+        self.unit_w.observe(lambda c: self._draw_analysis(), "value")
         # the two rankings side by side where the window is wide enough, else one
         # under the other (a plot drawn in a notebook does not know its box's width)
         rankings = widgets.HBox([self.figs["S"], self.figs["N"]],
@@ -286,6 +286,20 @@ class NetworkOverview(SavedText, widgets.VBox):
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
         self.figure_export = FigureExport(lambda: self.figs, "network")
         self.children = (*self.children, self.figure_export)
+
+    def _draw_analysis(self):
+        """The trend and exceedance table in the unit shown: slopes converted by the
+        factor of a yearly rate (kg/ha/yr was kept whatever the unit control said);
+        p values and years unchanged; exceedances in eq/ha/yr, the critical loads'."""
+        from .apps_analysis import network_analysis_table
+        unit = self.unit_w.value
+        self.analysis = network_analysis_table(self.results, None, unit,
+                                               parts=self._analysis_parts)
+        self.analysis_w.value = (f"<b>Trends of the annual totals [{html.escape(unit)} per yr] "
+                                 "and critical-load exceedance of the span [eq/ha/yr]</b>"
+                                 "<div style='overflow-x:auto;max-width:100%'>"
+                                 + table_html(self.analysis.rename(columns=ANALYSIS_HEADINGS))
+                                 + "</div>")
 
     def _no_data_html(self) -> str:
         """The sites of sites.toml without any input row: named, not silently left out

@@ -328,10 +328,22 @@ def title_room(title: str) -> int:
 WHOLE = ("complete", "filled")
 
 
-def status_note(statuses) -> str:
+def status_note(statuses, missing=()) -> str:
     """`` (partial)``, `` (flagged, partial)`` ...: the statuses among `statuses` that are
-    not complete or filled, for a legend entry or a column heading; ``""`` when none."""
+    not complete or filled, for a legend entry or a column heading; ``""`` when none.
+
+    `missing`: the components without data of the same totals (space-separated names
+    each); they are named (`` (flagged, no NO2)``), so that a total both flagged and
+    lacking a component (flagged wins in the status of a sum) does not read as merely
+    flagged.
+
+    >>> status_note(["complete", "flagged"], ["", "NO2"])
+    ' (flagged, no NO2)'
+    """
     bad = sorted({str(x) for x in statuses} - set(WHOLE))
+    names = list(dict.fromkeys(n for m in missing if isinstance(m, str) for n in m.split()))
+    if names and {str(x) for x in statuses} - {"missing"}:   # a total with a number
+        bad.append("no " + ", ".join(names))
     return f" ({', '.join(bad)})" if bad else ""
 
 
@@ -367,7 +379,8 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
             g = t[t["total"] == f"{el}_{pw}"]
             fig.add_trace(go.Scatter(
                 x=g["x"], y=[v if np.isfinite(v) else None for v in g["rate"]],
-                mode="lines+markers", name=f"{el} {pw}{status_note(g['status'])}",
+                mode="lines+markers",
+                name=f"{el} {pw}{status_note(g['status'], g.get('missing', ()))}",
                 legendgroup=pw,
                 marker=dict(symbol=["circle" if x in WHOLE else "circle-open"
                                     for x in g["status"]]),

@@ -257,7 +257,8 @@ class Session:
         Returns
         -------
         pandas.DataFrame
-            ``value, total, rate`` [unit, mean of the years], ``status``.
+            ``value, total, rate`` [unit, mean of the years], ``status``, ``missing``
+            (components without data in any of the years, space-separated).
         """
         a = ASSUMPTIONS[key]
         rows = []
@@ -268,7 +269,8 @@ class Session:
             m = mean_totals(res.years, site, receptor, None, unit)
             rows.append(pd.DataFrame({"value": [v] * len(m), "total": m.index,
                                       "rate": m["value"].to_numpy(),
-                                      "status": m["status"].to_numpy()}))
+                                      "status": m["status"].to_numpy(),
+                                      "missing": m["missing"].to_numpy()}))
         _say(progress, "done", 1.0)
         return pd.concat(rows, ignore_index=True)
 

@@ -159,19 +159,25 @@ def mean_totals(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -
     """Mean yearly rate of each total over some periods, with the worst status.
 
     The mean is taken over every period given (not only those that pass completeness);
-    the status says whether any of them is flagged, partial or filled.
+    the status says whether any of them is flagged, partial or filled, and ``missing``
+    names the components without data in any of them (a flagged status hides a partial
+    one: both can hold).
 
     Returns
     -------
     pandas.DataFrame
-        Index ``total``; columns ``value`` [unit], ``status``, ``n_periods``.
+        Index ``total``; columns ``value`` [unit], ``status``, ``n_periods``,
+        ``missing`` (space-separated component names, ``""`` when none).
     """
     t = total_rates(ds, site, receptor, periods, unit)
     order = {"complete": 0, "filled": 1, "partial": 2, "flagged": 3, "missing": 4}
     g = t.groupby("total", sort=False)
     out = pd.DataFrame({"value": g["value"].mean(),
                         "status": g["status"].agg(lambda s: max(s, key=lambda v: order.get(v, 5))),
-                        "n_periods": g["value"].size()})
+                        "n_periods": g["value"].size(),
+                        "missing": g["missing"].agg(
+                            lambda m: " ".join(dict.fromkeys(
+                                n for v in m if isinstance(v, str) for n in v.split())))})
     return out
 
 
@@ -495,7 +501,13 @@ def change_line(before: pd.DataFrame | None, after: pd.DataFrame, unit="kg/ha/yr
         label = f"{el} {pw}"
         new = float(after.loc[name, "value"]) if name in after.index else np.nan
         st = after.loc[name, "status"] if name in after.index else "missing"
-        tail = "" if st == "complete" else f" ({st})"
+        miss = (str(after.loc[name, "missing"]).split()
+                if name in after.index and "missing" in after else [])
+        # a flagged total lacking a component (flagged wins in the status of a sum)
+        # names the component, as a partial one does
+        words = [w for w in (st if st != "complete" else "",
+                             f"no {', '.join(miss)}" if miss and st != "missing" else "") if w]
+        tail = f" ({', '.join(words)})" if words else ""
         if before is None or name not in before.index:
             parts.append(f"{label} {_fmt(new)} {unit}{tail}")
             continue

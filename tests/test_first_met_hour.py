@@ -1,0 +1,59 @@
+"""The first hour of a met record has no previous hour: its surface wetness is unknown
+unless rain or dew is seen (docs/methods_dry.md section 8), so its modelled Vd is NaN
+(velocities.nc) and the budget fills it from the mean diurnal cycle like any hour without
+a modelled Vd, counted in vd_coverage.  This pins that documented behaviour: the filled
+hour never reads as a modelled one.  Only the record's first hour: a run whose period
+starts inside the record takes the previous hour's rain from the file."""
+import gzip
+import warnings
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from ui.demo_subset import write_demo_subset
+
+HOURS_2021 = 8760
+
+
+def _study(tmp, first_label):
+    from workbench.pipeline import Study
+    from workbench.scenario import load_scenario
+    path = write_demo_subset(tmp, ("ridge",), 2021, 2021)
+    met = pd.read_csv(tmp / "met.csv.gz", comment="#")
+    met = met[met["time"] >= first_label].copy()
+    met["relative_humidity [%]"] = 60.0              # no dew in the first hour
+    met.loc[met.index[0], "precipitation [mm]"] = 0.0  # nor rain
+    with gzip.open(tmp / "met.csv.gz", "wt") as f:
+        f.write("# time_label: end\n")
+        met.to_csv(f, index=False)
+    return Study.from_scenario(load_scenario(path))
+
+
+@pytest.fixture(scope="module")
+def first_hour_in_2021(tmp_path_factory):
+    # local standard time (UTC+1), labels at the hour's end: the record's first hour is
+    # the hour ending 05:00 UTC, so 2021 lacks the four hours before it as well
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        return _study(tmp_path_factory.mktemp("first_hour"), "2021-01-01T06:00").run()
+
+
+def test_first_hour_has_no_modelled_vd(first_hour_in_2021):
+    v = first_hour_in_2021.velocities.sel(site="ridge",
+                                          receptor=["conifer_forest", "moorland", "grass"])
+    wet = v["surface_wet"].values
+    assert np.isnan(wet[..., 0]).all() and np.isfinite(wet[..., 1]).all()
+    assert np.isnan(v["vd_SO2"].values[..., 0]).all()
+    assert np.isfinite(v["vd_SO2"].values[..., 1]).all()
+
+
+def test_first_hour_counts_as_not_modelled_in_the_budget(first_hour_in_2021):
+    t = first_hour_in_2021.table
+    dry = t[(t["site"] == "ridge") & (t["period"] == "2021") & (t["pathway"] == "dry")
+            & (t["species"] != "all") & (t["status"] != "missing")]
+    assert len(dry)
+    # 4 hours before the record plus its first hour have no modelled Vd
+    not_modelled = np.round((1.0 - dry["vd_coverage"].to_numpy(float)) * HOURS_2021)
+    assert (not_modelled == 5).all(), not_modelled
+    assert (dry["flux_coverage"] == 1.0).all()       # the filled hour has a flux
