@@ -212,13 +212,23 @@ def block_result(grid: Grid, ys: slice, xs: slice, dry_options, budget_options: 
         for cls in sorted({s.land_use for s in cat}):
             members = [s for s in cat if s.land_use == cls]
             for k in range(0, len(members), CELLS_PER_CALL):   # the peak of one slice
-                sub = SiteCatalogue(members[k:k + CELLS_PER_CALL])
-                air_c = air.isel(period=np.flatnonzero(np.isin(air["site"].values, sub.ids)))
-                _, vel, dry = dry_for_sites(met.sel(site=sub.ids), air_c, sub, dry_options,
-                                            budget_options, periods, fixed_velocity)
-                idx = np.array([pos[s] for s in sub.ids])
-                _fill(out, names, idx, vel, dry, which, n_p)
+                _one_call(out, names, SiteCatalogue(members[k:k + CELLS_PER_CALL]), met, air,
+                          pos, which, n_p, dry_options, budget_options, periods,
+                          fixed_velocity)
     return out.reshape(len(names), n_p, ny, nx)
+
+
+def _one_call(out, names, sub, met, air, pos, which, n_p, dry_options, budget_options,
+              periods, fixed_velocity):
+    """The dry chain of some cells of one class, put into `out`.  Its hourly results
+    (Vd of every species and surface, gap-filled Vd, dry rows) are let go when it
+    returns: bound in the loop of :func:`block_result`, one call's results were held
+    while the next call computed its own (the peak of two calls)."""
+    air_c = air.isel(period=np.flatnonzero(np.isin(air["site"].values, sub.ids)))
+    _, vel, dry = dry_for_sites(met.sel(site=sub.ids), air_c, sub, dry_options,
+                                budget_options, periods, fixed_velocity)
+    idx = np.array([pos[s] for s in sub.ids])
+    _fill(out, names, idx, vel, dry, which, n_p)
 
 
 def _fill(out, names, idx, vel, dry, which, n_p):
