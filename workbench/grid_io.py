@@ -629,14 +629,17 @@ def _block_values(grid, role, names, ys, xs, then) -> dict:
     copy = grid.scratch.get(role)
     direct = [n for n in names if copy is None or not copy.has(n, ys, xs)]
     out = {n: then(n, copy.values(n, ys, xs)) for n in names if n not in direct}
-    if direct:
+    for name in direct:
+        # the file opened anew for each variable (as the scratch copy does): one open
+        # NetCDF4 file kept the HDF5 chunk cache of every variable read through it, so
+        # a block read from chunks of the whole plane held one cache per variable
         with _open(grid.paths[role], role) as raw:
-            for name in direct:
-                var = raw[name].isel({grid.dims[0]: ys, grid.dims[1]: xs})
-                extra = [d for d in var.dims if d != "time" and d not in grid.dims]
-                var = var.squeeze(extra, drop=True).transpose("time", *grid.dims)
-                v = read_values(var, grid.paths[role], name)
-                out[name] = then(name, v.reshape(v.shape[0], -1))
+            var = raw[name].isel({grid.dims[0]: ys, grid.dims[1]: xs})
+            extra = [d for d in var.dims if d != "time" and d not in grid.dims]
+            var = var.squeeze(extra, drop=True).transpose("time", *grid.dims)
+            v = read_values(var, grid.paths[role], name)
+        out[name] = then(name, v.reshape(v.shape[0], -1))
+        del v
     return {n: out[n] for n in names}
 
 
