@@ -44,10 +44,10 @@ LAND_FIELDS = {"canopy_height": ("m", "canopy height of the cell's class (defaul
 
 #: Met records of a block checked at once, about [-] (whole cells: :func:`check_cells`).
 #: The row checks of the site reader hold several per-record copies, groupings and
-#: texts of what they check (about 0.4 kB a record); a block of 0.88 M cell-hours
-#: checked at once peaked at 380 MB of them (2026-12-03, docs/performance.md), checked
-#: in slices of this many records at XX MB, the same values and reasons (our choice,
-#: measured).
+#: texts of what they check (about 0.4 kB a record): a block of 0.8 M cell-hours
+#: checked at once made its read peak 375 MB above the open grid, in slices of this
+#: many records 106 MB (the block's met itself 45 MB), the same values and reasons and
+#: no more CPU (2026-12-03, docs/performance.md; our choice, measured).
 CHECK_CELL_HOURS = 131_072
 
 
