@@ -132,7 +132,7 @@ def dry_for_sites(met, air, catalogue: SiteCatalogue, dry_options, budget_option
     fixed_velocity = dict(fixed_velocity or {})
     surf = catalogue.surfaces()
     need = [sp for sp in DRY_SPECIES if sp in air and sp not in fixed_velocity]
-    vd = velocities(met, surf, dry_options) if need else None
+    vd = velocities(met, surf, _only(dry_options, need)) if need else None
     receptors = [str(r) for r in surf["receptor"].values]
     template = xr.DataArray(np.full((len(catalogue), len(receptors), met.sizes["time"]), np.nan),
                             dims=("site", "receptor", "time"),
@@ -151,6 +151,19 @@ def dry_for_sites(met, air, catalogue: SiteCatalogue, dry_options, budget_option
         return vd, vel, None
     rows = dry_rows(air, vel, met, catalogue.ids, budget_options)
     return vd, vel, dry_components(rows, periods)
+
+
+def _only(dry_options, species):
+    """`dry_options` computing only the gases and particles of `species` that it
+    computes: each species' Vd is its own chain (Ra, Rb and its own Rc or particle
+    modes), so the others' hourly results (ozone, sea salt, dust: 11 of 64 hourly
+    variables of a slice of cells) are not made and held for nothing; the Vd of the
+    species kept are the same bits (tested)."""
+    import dataclasses
+    keep = set(species)
+    return dataclasses.replace(
+        dry_options, gases=tuple(g for g in dry_options.gases if g in keep),
+        particles=tuple(p for p in dry_options.particles if p in keep))
 
 
 def _period_sums(values: np.ndarray, which: np.ndarray, n_p: int) -> np.ndarray:
@@ -212,13 +225,23 @@ def block_result(grid: Grid, ys: slice, xs: slice, dry_options, budget_options: 
         for cls in sorted({s.land_use for s in cat}):
             members = [s for s in cat if s.land_use == cls]
             for k in range(0, len(members), CELLS_PER_CALL):   # the peak of one slice
-                sub = SiteCatalogue(members[k:k + CELLS_PER_CALL])
-                air_c = air.isel(period=np.flatnonzero(np.isin(air["site"].values, sub.ids)))
-                _, vel, dry = dry_for_sites(met.sel(site=sub.ids), air_c, sub, dry_options,
-                                            budget_options, periods, fixed_velocity)
-                idx = np.array([pos[s] for s in sub.ids])
-                _fill(out, names, idx, vel, dry, which, n_p)
+                _one_call(out, names, SiteCatalogue(members[k:k + CELLS_PER_CALL]), met, air,
+                          pos, which, n_p, dry_options, budget_options, periods,
+                          fixed_velocity)
     return out.reshape(len(names), n_p, ny, nx)
+
+
+def _one_call(out, names, sub, met, air, pos, which, n_p, dry_options, budget_options,
+              periods, fixed_velocity):
+    """The dry chain of some cells of one class, put into `out`.  Its hourly results
+    (Vd of every species and surface, gap-filled Vd, dry rows) are let go when it
+    returns: bound in the loop of :func:`block_result`, one call's results were held
+    while the next call computed its own (the peak of two calls)."""
+    air_c = air.isel(period=np.flatnonzero(np.isin(air["site"].values, sub.ids)))
+    _, vel, dry = dry_for_sites(met.sel(site=sub.ids), air_c, sub, dry_options,
+                                budget_options, periods, fixed_velocity)
+    idx = np.array([pos[s] for s in sub.ids])
+    _fill(out, names, idx, vel, dry, which, n_p)
 
 
 def _fill(out, names, idx, vel, dry, which, n_p):

@@ -42,6 +42,15 @@ LAND_FIELDS = {"canopy_height": ("m", "canopy height of the cell's class (defaul
                "surface_altitude": ("m", "surface altitude (fills missing pressure)")}
 
 
+#: Met records of a block checked at once, about [-] (whole cells: :func:`check_cells`).
+#: The row checks of the site reader hold several per-record copies, groupings and
+#: texts of what they check (about 0.4 kB a record): a block of 0.8 M cell-hours
+#: checked at once made its read peak 375 MB above the open grid, in slices of this
+#: many records 106 MB (the block's met itself 45 MB), the same values and reasons and
+#: no more CPU (2026-12-03, docs/performance.md; our choice, measured).
+CHECK_CELL_HOURS = 131_072
+
+
 class GridError(InputError):
     """A gridded input breaks the format of docs/data_formats.md."""
 
@@ -552,11 +561,9 @@ def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue,
         v = v[:, keep].T.reshape(-1).astype(float)
         return _convert_met(v, grid.met_units[name], name, MET_VARIABLES[name][0],
                             grid.paths["met"])
-    values = _block_values(grid, "met", grid.met_units, ys, xs, convert)
-    sites = np.repeat(kept.astype(object), n_t)
-    t = np.tile(grid.times, n_c)
-    reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, grid.met_units)
-    flagged = (np.asarray(reasons, object) != "").reshape(n_c, n_t)  # no text array
+    values = {n: np.asarray(v, float) for n, v in
+              _block_values(grid, "met", grid.met_units, ys, xs, convert).items()}
+    flagged, reasons = _check_cells(values, kept, n_t, grid, catalogue, with_reasons)
     dvars = {}
     for name, v in values.items():
         unit, _, long_name = MET_VARIABLES[name]
@@ -569,6 +576,52 @@ def read_block(grid: Grid, ys: slice, xs: slice, catalogue: SiteCatalogue,
     return met, _air_block(grid, ys, xs, keep, kept), flagged
 
 
+def _check_cells(values, kept, n_t, grid, catalogue, with_reasons):
+    """The site reader's row checks on a block's met, :func:`check_cells` cells at a
+    time; the checked values are written back into `values` (flat, cell-major).
+
+    Every check looks at one row or at one site's rows, so whole cells checked apart
+    give the same values and reasons as all at once; only one slice's temporaries (the
+    checks' per-row copies, groupings and text) are held, not the block's.
+
+    Returns
+    -------
+    flagged : ndarray of bool, (cell, time)
+    reasons : ndarray of object or None
+        With `with_reasons`: the "; "-joined reasons of each record (cell-major).
+    """
+    n_c = len(kept)
+    flagged = np.zeros((n_c, n_t), bool)
+    texts = []
+    step = check_cells(n_t)
+    for k in range(0, n_c, step):
+        m = min(step, n_c - k)
+        rows = slice(k * n_t, (k + m) * n_t)
+        sites = np.repeat(kept[k:k + m].astype(object), n_t)
+        t = np.tile(grid.times, m)
+        got, checked = metchecks.run_row_checks({n: v[rows] for n, v in values.items()},
+                                                sites, t, catalogue, grid.met_units)
+        for name, v in checked.items():
+            values[name][rows] = v
+        got = np.asarray(got, object)
+        flagged[k:k + m] = (got != "").reshape(m, n_t)        # no text array
+        if with_reasons:
+            texts.append(got)
+    if not with_reasons:
+        return flagged, None
+    return flagged, (np.concatenate(texts) if texts else np.array([], object))
+
+
+def check_cells(n_hours: int) -> int:
+    """Cells whose met records are checked at once [-]: about :data:`CHECK_CELL_HOURS`
+    records, at least one cell.
+
+    >>> check_cells(2208), check_cells(8760), check_cells(87600)
+    (59, 14, 1)
+    """
+    return max(1, CHECK_CELL_HOURS // max(int(n_hours), 1))
+
+
 def _block_values(grid, role, names, ys, xs, then) -> dict:
     """name -> ``then(name, values (time, cell))`` for the variables of a block, one at
     a time: from the block-major scratch copy (:mod:`workbench.grid_scratch`) where it
@@ -576,14 +629,17 @@ def _block_values(grid, role, names, ys, xs, then) -> dict:
     copy = grid.scratch.get(role)
     direct = [n for n in names if copy is None or not copy.has(n, ys, xs)]
     out = {n: then(n, copy.values(n, ys, xs)) for n in names if n not in direct}
-    if direct:
+    for name in direct:
+        # the file opened anew for each variable (as the scratch copy does): one open
+        # NetCDF4 file kept the HDF5 chunk cache of every variable read through it, so
+        # a block read from chunks of the whole plane held one cache per variable
         with _open(grid.paths[role], role) as raw:
-            for name in direct:
-                var = raw[name].isel({grid.dims[0]: ys, grid.dims[1]: xs})
-                extra = [d for d in var.dims if d != "time" and d not in grid.dims]
-                var = var.squeeze(extra, drop=True).transpose("time", *grid.dims)
-                v = read_values(var, grid.paths[role], name)
-                out[name] = then(name, v.reshape(v.shape[0], -1))
+            var = raw[name].isel({grid.dims[0]: ys, grid.dims[1]: xs})
+            extra = [d for d in var.dims if d != "time" and d not in grid.dims]
+            var = var.squeeze(extra, drop=True).transpose("time", *grid.dims)
+            v = read_values(var, grid.paths[role], name)
+        out[name] = then(name, v.reshape(v.shape[0], -1))
+        del v
     return {n: out[n] for n in names}
 
 

@@ -1,0 +1,143 @@
+"""Peak memory of `workbench grid` per block and against the size of the grid.
+
+Flat memory means: a block's peak does not grow with the grid, and the process does not
+grow with the number of blocks.  This benchmark measures both on the invented demo grid
+(`workbench.grid_demo.make_demo_grid`), three months of hours (2,208 h: 19 x 19 cells a
+block by default, 0.80 M cell-hours), the met as NetCDF4 chunked by 736 hours (zlib 1)
+and as NetCDF3 (classic, as the demo writes it).  A measurement, not a test.
+
+    python benchmarks/grid_memory.py --make DIR --n 20 --n 60 --n 100
+    python benchmarks/grid_memory.py --run DIR --n 20 --n 60 --what block
+    python benchmarks/grid_memory.py --run DIR --n 20 --n 60 --what grid
+
+Each measurement runs in a fresh process (`--child`).  ``--what read``: `read_block` of
+the first block alone; ``block``: `block_result` of the first block; ``grid``: every
+block in process (`compute_grid`).  Printed: the process's peak resident set (VmHWM),
+its resident set before the measured part (imports and the open grid), the difference
+("above base"), the resident set after each block (``grid``: growth across blocks), CPU,
+and the load average, then the ratio of each size's peak above base to the first size's; ``--trace`` adds the tracemalloc peak (slower).  Report ratios of
+the numbers of one machine at one load; see docs/performance.md.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+ROLES = ("met", "air", "land_use")
+#: Met hours a chunk of the NetCDF4 copy [h] (a third of the record, as the trial's).
+NC4_CHUNK_HOURS = 736
+
+
+def _status(key: str) -> float:
+    for line in Path("/proc/self/status").read_text().splitlines():
+        if line.startswith(key + ":"):
+            return int(line.split()[1]) / 1024
+    return float("nan")
+
+
+def make(folder: Path, n: int, months: int = 3):
+    """The demo grid of n x n cells (NetCDF3) and its met as NetCDF4 chunked along time."""
+    import xarray as xr
+    from workbench.grid_demo import make_demo_grid
+    base = folder / f"n{n}"
+    sc = make_demo_grid(base / "nc3", n=n, months=months)
+    out = base / "nc4"
+    out.mkdir(parents=True, exist_ok=True)
+    for role in ROLES:
+        with xr.open_dataset(base / "nc3" / f"{role}.nc") as ds:
+            ds = ds.load()
+        enc = {}
+        for v in ds.data_vars:
+            if role == "met" and ds[v].ndim == 3 and ds[v].dims[0] == "time":
+                enc[v] = {"zlib": True, "complevel": 1,
+                          "chunksizes": (min(NC4_CHUNK_HOURS, ds.sizes["time"]),) + ds[v].shape[1:]}
+        ds.to_netcdf(out / f"{role}.nc", engine="netcdf4", format="NETCDF4", encoding=enc)
+    (out / "scenario.toml").write_text(sc.read_text())
+    print(json.dumps({"made": str(base), "n": n, "months": months}))
+
+
+def child(folder: Path, what: str, trace: bool, block: int):
+    import numpy as np  # noqa: F401  (imports before the base line)
+    from workbench import grid as g
+    from workbench.budget import BudgetOptions
+    from workbench.drydep import DryOptions
+    from workbench.grid_io import block_catalogue, open_grid, read_block
+    grid = open_grid(*(folder / f"{r}.nc" for r in ROLES))
+    block = block or g.default_block(len(grid.times))
+    periods = g.make_periods(grid, "month")
+    args = (DryOptions(), BudgetOptions(), periods)
+    (ys, xs), = g.blocks(grid.shape, block)[0][:1]
+    if trace:
+        import tracemalloc
+        tracemalloc.start()
+    base = _status("VmRSS")
+    after = []
+    t0, c0 = time.perf_counter(), time.process_time()
+    if what == "read":
+        read_block(grid, ys, xs, block_catalogue(grid, ys, xs))
+    elif what == "block":
+        g.block_result(grid, ys, xs, *args)
+    else:
+        g.compute_grid(grid, *args, block=block,
+                       progress=lambda _: after.append(round(_status("VmRSS"))))
+    out = {"folder": str(folder), "what": what, "shape": list(grid.shape), "block": block,
+           "cell_hours_per_block": (ys.stop - ys.start) * (xs.stop - xs.start) * len(grid.times),
+           "peak_mb": round(_status("VmHWM")), "base_mb": round(base),
+           "above_base_mb": round(_status("VmHWM") - base),
+           "cpu_s": round(time.process_time() - c0, 1),
+           "wall_s": round(time.perf_counter() - t0, 1), "load": round(os.getloadavg()[0], 2)}
+    if trace:
+        out["traced_peak_mb"] = round(tracemalloc.get_traced_memory()[1] / 1e6)
+    if after:
+        out["rss_after_blocks_mb"] = after
+    print(json.dumps(out))
+
+
+def main(argv=None) -> int:
+    p = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    p.add_argument("--make", type=Path)
+    p.add_argument("--run", type=Path)
+    p.add_argument("--n", type=int, action="append", help="cells a side (repeatable)")
+    p.add_argument("--months", type=int, default=3)
+    p.add_argument("--layout", choices=("nc4", "nc3"), default="nc4")
+    p.add_argument("--what", choices=("read", "block", "grid"), default="block")
+    p.add_argument("--block", type=int, default=0, help="cells a block side (0: the default)")
+    p.add_argument("--trace", action="store_true")
+    p.add_argument("--repeat", type=int, default=1)
+    p.add_argument("--child", type=Path, help=argparse.SUPPRESS)
+    a = p.parse_args(argv)
+    sys.path.insert(0, str(ROOT))
+    if a.child:
+        child(a.child, a.what, a.trace, a.block)
+        return 0
+    sizes = a.n or [20]
+    if a.make:
+        for n in sizes:
+            make(a.make, n, a.months)
+        return 0
+    if not a.run:
+        p.error("--make DIR or --run DIR")
+    env = dict(os.environ, PYTHONPATH=str(ROOT))
+    above = {}
+    for n in sizes:
+        for _ in range(a.repeat):
+            cmd = [sys.executable, __file__, "--child", str(a.run / f"n{n}" / a.layout),
+                   "--what", a.what, "--block", str(a.block)] + (["--trace"] if a.trace else [])
+            got = subprocess.run(cmd, check=True, env=env, capture_output=True, text=True)
+            print(got.stdout.strip(), flush=True)
+            above.setdefault(n, []).append(json.loads(got.stdout.strip().splitlines()[-1])
+                                           ["above_base_mb"])
+    first = min(above[sizes[0]])
+    print(json.dumps({"peak_above_base_ratio_to_first_size":
+                      {f"{n}x{n}": round(min(v) / first, 2) for n, v in above.items()}}))
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
