@@ -1,0 +1,251 @@
+"""Hand audit of the Monte Carlo against analytic propagation (hand_site.py's invented
+sites: fixed Vd, every component a sum of per-sample products).
+
+What test_uncertainty_analytic.py does not do, and this file does:
+
+* the wet flux with gauge, depth and analysis errors at once, against the exact
+  variance of a sum of products of independent factors and against the GUM law of
+  propagation (first order, relative uncertainties in quadrature);
+* the exact distribution of a sum of two correlated log-normal Vd factors (S dry =
+  SO2 + pSO4, the documented GSDs and shared fraction), by quadrature;
+* the exact correlation of S and N draws through the factors they share (depth and
+  gauge catch on the wet ions, the micrometeorology on the Vd), for the wet, dry and
+  total sums;
+* the correlation of draws across the calendar years and across the sites (the docs:
+  systematic per site-year, independent between years and sites), at the level of the
+  components of monthly periods, not of the factors alone.
+
+Sources beside each check.  Expected values never come from workbench.analysis; the
+module under test only makes the draws.  Tolerances from the number of draws n
+(common practice): a mean within 5 standard errors, a variance within 5 of
+sqrt((m4 - s^4) / n), a correlation r within 5 (1 - r^2) / sqrt(n), a quantile q
+within 5 sqrt(q (1 - q) / n) / f(x_q).
+"""
+import numpy as np
+import pytest
+from scipy import optimize, stats
+
+from analysis.hand_site import (HNO3, MONTH, NH4, NO3, PSO4, SO2, SO4, dry_parts,
+                                wet_parts, write_site)
+from workbench.analysis import uncertainty as U
+
+N = 20000
+#: Every factor off (GSD 1, spreads 0); a test switches on what it checks.
+OFF = dict(vd_gsd={sp: 1.0 for sp in U.DEFAULT_VD_GSD}, air_rel_sd=0.0, precip_conc_rel_sd=0.0,
+           gauge_catch_rel_sd=0.0, depth_rel_sd=0.0, censored_rel_sd=0.0, vd_fill_rel_sd=0.0,
+           pwm_fill_rel_sd=0.0)
+
+
+@pytest.fixture(scope="module")
+def hand(tmp_path_factory):
+    return write_site(tmp_path_factory.mktemp("hand"))
+
+
+def _draws(hand, site=0, n=N, seed=11, **opts):
+    """Component draws (D, P, C) [mol m-2] of one site, and the point (P, C)."""
+    _, study, res = hand
+    from workbench.analysis.layer import linear_layer
+    lay = linear_layer(res, study)
+    opt = U.UncertaintyOptions(draws=n, seed=seed, **{**OFF, **opts})
+    y0 = int(lay.period_year.min())
+    b = lay.budget
+    noise = U.site_noise(lay.sites[site], opt, n, int(lay.period_year.max()) - y0 + 1,
+                         b.sizes["period"], (seed, str(b["site"].values[site])), y0,
+                         (b["period_start"].values, b["period_end"].values))
+    comp = U.component_draws(lay, site, noise, y0)[:, 0]
+    return comp, res.budget["deposition"].values[site, 0]
+
+
+def _j(hand, species, path):
+    names = [str(c) for c in hand[2].budget["component"].values]
+    return names.index(next(c for c in names if c.endswith(f"{path}/{species}")))
+
+
+def _close_var(x, want):
+    m4 = np.mean((x - x.mean()) ** 4)
+    se = np.sqrt((m4 - x.var() ** 2) / x.size)
+    assert abs(x.var(ddof=1) - want) < 5 * se, (x.var(ddof=1), want, se)
+
+
+def _close_corr(x, y, want):
+    r = np.corrcoef(x, y)[0, 1]
+    assert abs(r - want) < 5 * (1 - want ** 2) / np.sqrt(x.size) + 1e-12, (r, want)
+
+
+def test_point_budget_is_the_hand_sum(hand):
+    """The point components are the sums a hand computes (the base of every check
+    below): dry = sum C Vd t, wet = sum P C per month (molar masses from memory to 5
+    digits, hence rtol 1e-4)."""
+    _, point = _draws(hand, n=2)
+    for sp in ("SO2", "pSO4", "HNO3"):
+        want = [dry_parts(sp)[MONTH == m].sum() for m in range(3)]
+        np.testing.assert_allclose(point[:, _j(hand, sp, "dry")], want, rtol=1e-4)
+    for ion, c in (("SO4", SO4), ("NO3", NO3), ("NH4", NH4)):
+        want = [wet_parts(c)[MONTH == m].sum() for m in range(3)]
+        np.testing.assert_allclose(point[:, _j(hand, ion, "wet")], want, rtol=1e-12)
+
+
+@pytest.mark.parametrize("sg, se, sd", [(0.05, 0.05, 0.05), (0.1, 0.3, 0.2)])
+def test_wet_flux_gauge_depth_analysis_exact_and_gum(hand, sg, se, sd):
+    """Wet flux D = g sum_i P_i eps_i C_i delta_i (PWM x depth: the PWM's weights and
+    the depth share eps), g, eps, delta independent with mean 1 and relative SDs sg, se,
+    sd.  Exact (moments of products of independent factors; Goodman 1960, J. Am.
+    Stat. Assoc. 55, 708, from memory):
+        Var(D / D0) = (1 + sg^2) (1 + h ((1 + se^2)(1 + sd^2) - 1)) - 1,
+        h = sum a_i^2 / (sum a_i)^2, a_i = P_i C_i.
+    JCGM 100:2008 (GUM) law of propagation, eq. (10), first order, for a product the
+    relative form of 5.1.6 (eq. 12): u^2 = sg^2 + h (se^2 + sd^2).  At the default
+    spreads (0.05) the two agree to better than 1 % of the variance: quadrature is
+    enough there; with larger spreads the exact form is the one the draws follow."""
+    comp, point = _draws(hand, gauge_catch_rel_sd=sg, depth_rel_sd=se, precip_conc_rel_sd=sd)
+    for ion, c in (("SO4", SO4), ("NO3", NO3), ("NH4", NH4)):
+        j = _j(hand, ion, "wet")
+        for m in range(3):
+            a = wet_parts(c)[MONTH == m]
+            h = (a ** 2).sum() / a.sum() ** 2
+            exact = (1 + sg ** 2) * (1 + h * ((1 + se ** 2) * (1 + sd ** 2) - 1)) - 1
+            gum = sg ** 2 + h * (se ** 2 + sd ** 2)
+            r = comp[:, m, j] / point[m, j]
+            assert abs(r.mean() - 1) < 5 * r.std() / np.sqrt(N)
+            _close_var(r, exact)
+            if sg == se == sd == 0.05:
+                assert abs(exact - gum) / exact < 0.01
+
+
+def _sum_of_lognormals_quantile(a, b, s1, s2, rho, q):
+    """q-quantile of a F1 + b F2, ln F_k = s_k (sqrt(rho) z0 + sqrt(1 - rho) z_k), by
+    Gauss-Hermite quadrature over (z0, z1) of P(F2 < (t - a F1) / b | z0) (the
+    documented model of the shared micrometeorology; numpy.polynomial.hermite_e,
+    scipy.stats.norm, scipy.optimize.brentq).  Returns (t, density at t)."""
+    x, w = np.polynomial.hermite_e.hermegauss(80)
+    w = w / w.sum()
+    z0, z1 = np.meshgrid(x, x, indexing="ij")
+    wt = w[:, None] * w[None, :]
+    f1 = np.exp(s1 * (np.sqrt(rho) * z0 + np.sqrt(1 - rho) * z1))
+    mu2, sig2 = s2 * np.sqrt(rho) * z0, s2 * np.sqrt(1 - rho)
+
+    def cdf(t):
+        rest = (t - a * f1) / b
+        with np.errstate(divide="ignore", invalid="ignore"):
+            p = np.where(rest > 0, stats.norm.cdf((np.log(np.maximum(rest, 1e-300)) - mu2) / sig2),
+                         0.0)
+        return float((wt * p).sum())
+    hi = (a + b) * 50
+    t = optimize.brentq(lambda v: cdf(v) - q, 1e-12 * (a + b), hi, xtol=1e-14 * (a + b))
+    dt = 1e-3 * t
+    return t, (cdf(t + dt) - cdf(t - dt)) / (2 * dt)
+
+
+def test_s_dry_is_a_sum_of_correlated_lognormals(hand):
+    """S dry = SO2 F_SO2 + pSO4 F_pSO4 with the documented defaults (GSD 1.5 and 1.8,
+    shared fraction 0.5): every quantile of the draws against the exact distribution
+    of the sum, by quadrature (not a log-normal approximation of the sum)."""
+    gsd = {"SO2": 1.5, "pSO4": 1.8}
+    comp, point = _draws(hand, vd_gsd={**OFF["vd_gsd"], **gsd}, vd_shared_fraction=0.5)
+    for m in range(3):
+        a, b = point[m, _j(hand, "SO2", "dry")], point[m, _j(hand, "pSO4", "dry")]
+        s = comp[:, m, _j(hand, "SO2", "dry")] + comp[:, m, _j(hand, "pSO4", "dry")]
+        for q in (0.05, 0.25, 0.5, 0.75, 0.95):
+            t, f = _sum_of_lognormals_quantile(a, b, np.log(gsd["SO2"]), np.log(gsd["pSO4"]),
+                                               0.5, q)
+            se = np.sqrt(q * (1 - q) / N) / f
+            assert abs(np.quantile(s, q) - t) < 5 * se, (m, q, np.quantile(s, q), t, se)
+
+
+def _wet_moments(a, bc, sg, se, sd):
+    """Exact second moments of S = g sum eps a delta and N = g sum eps (b delta' + c
+    delta'') over the point sums (moments of independent factors of mean 1; from
+    memory): returns Var S, Var N, Cov(S, N) [same units squared as a, b, c]."""
+    b, c = bc
+    g2, e2, d2 = 1 + sg ** 2, 1 + se ** 2, 1 + sd ** 2
+    sa, sn = a.sum(), (b + c).sum()
+    es2 = g2 * (sa ** 2 + (a ** 2 * (e2 * d2 - 1)).sum())
+    en2 = g2 * (sn ** 2 + (e2 * ((b ** 2 + c ** 2) * d2 + 2 * b * c) - (b + c) ** 2).sum())
+    esn = g2 * (sa * sn + se ** 2 * (a * (b + c)).sum())
+    return es2 - sa ** 2, en2 - sn ** 2, esn - sa * sn
+
+
+def _dry_moments(parts_s, parts_n, gsd, rho, sd):
+    """Exact Var S_dry, Var N_dry and their covariance: S = sum_k F_k R_k D_k over SO2
+    and pSO4, N = F R D of HNO3; ln F_k = s_k (sqrt(rho) z0 + sqrt(1 - rho) z_k), so
+    E[F_k F_l] = exp((s_k^2 + s_l^2 + 2 c_kl s_k s_l) / 2), c_kl = rho (k != l), 1
+    (k = l); R_k the per-sample analytical errors, E[R_k^2] = 1 + sd^2 sum a^2 /
+    (sum a)^2 (log-normal moments: textbook, from memory)."""
+    s = {k: np.log(g) for k, g in gsd.items()}
+
+    def ef(k, l):
+        c = 1.0 if k == l else rho
+        return np.exp((s[k] ** 2 + s[l] ** 2 + 2 * c * s[k] * s[l]) / 2)
+
+    def er2(p):
+        return 1 + sd ** 2 * (p ** 2).sum() / p.sum() ** 2
+    d = {k: p.sum() for k, p in {**parts_s, **parts_n}.items()}
+    r2 = {k: er2(p) for k, p in {**parts_s, **parts_n}.items()}
+    mean_s = sum(d[k] * np.exp(s[k] ** 2 / 2) for k in parts_s)
+    mean_n = sum(d[k] * np.exp(s[k] ** 2 / 2) for k in parts_n)
+    es2 = sum(d[k] * d[l] * ef(k, l) * (r2[k] if k == l else 1.0)
+              for k in parts_s for l in parts_s)
+    en2 = sum(d[k] * d[l] * ef(k, l) * (r2[k] if k == l else 1.0)
+              for k in parts_n for l in parts_n)
+    esn = sum(d[k] * d[l] * ef(k, l) for k in parts_s for l in parts_n)
+    return es2 - mean_s ** 2, en2 - mean_n ** 2, esn - mean_s * mean_n
+
+
+def test_s_and_n_draws_share_the_documented_factors(hand):
+    """Wet S and wet N share each sample's depth error and the site-year's gauge catch;
+    dry S and dry N share the micrometeorology of the Vd (shared fraction rho); wet and
+    dry are independent.  The correlation of the draws of S and N (wet, dry and total)
+    against the exact one from the moments above."""
+    sg, se, sd, sa, rho = 0.05, 0.15, 0.1, 0.05, 0.5
+    gsd = {"SO2": 1.5, "pSO4": 1.8, "HNO3": 1.4}
+    comp, point = _draws(hand, gauge_catch_rel_sd=sg, depth_rel_sd=se, precip_conc_rel_sd=sd,
+                         air_rel_sd=sa, vd_gsd={**OFF["vd_gsd"], **gsd},
+                         vd_shared_fraction=rho)
+    for m in range(3):
+        sel = MONTH == m
+        vs, vn, cw = _wet_moments(wet_parts(SO4)[sel],
+                                  (wet_parts(NO3)[sel], wet_parts(NH4)[sel]), sg, se, sd)
+        ds, dn, cd = _dry_moments({k: dry_parts(k)[sel] for k in ("SO2", "pSO4")},
+                                  {"HNO3": dry_parts("HNO3")[sel]}, gsd, rho, sa)
+        s_wet = comp[:, m, _j(hand, "SO4", "wet")]
+        n_wet = comp[:, m, _j(hand, "NO3", "wet")] + comp[:, m, _j(hand, "NH4", "wet")]
+        s_dry = comp[:, m, _j(hand, "SO2", "dry")] + comp[:, m, _j(hand, "pSO4", "dry")]
+        n_dry = comp[:, m, _j(hand, "HNO3", "dry")]
+        _close_var(s_wet, vs)
+        _close_var(n_wet, vn)
+        _close_var(s_dry, ds)
+        _close_var(n_dry, dn)
+        _close_corr(s_wet, n_wet, cw / np.sqrt(vs * vn))
+        _close_corr(s_dry, n_dry, cd / np.sqrt(ds * dn))
+        _close_corr(s_wet + s_dry, n_wet + n_dry, (cw + cd) / np.sqrt((vs + ds) * (vn + dn)))
+        _close_corr(s_wet, n_dry, 0.0)                      # wet and dry independent
+
+
+def test_systematic_factors_are_shared_within_a_year_not_across(hand):
+    """docs/methods_uncertainty.md, "Correlation structure": the Vd factors and the
+    gauge catch are drawn once per site and calendar year and act on every period of
+    that year; different years and different sites are independent.  Here at the level
+    of the monthly components: January and February 2021 move by the same ratio, draw
+    for draw; December 2020 is uncorrelated with January 2021 (another year)."""
+    comp, point = _draws(hand, vd_gsd={**OFF["vd_gsd"], "SO2": 1.6}, gauge_catch_rel_sd=0.1)
+    for j in (_j(hand, "SO2", "dry"), _j(hand, "SO4", "wet"), _j(hand, "NO3", "wet")):
+        r = comp[:, :, j] / point[:, j]
+        np.testing.assert_allclose(r[:, 1], r[:, 2], rtol=1e-12)     # one year, one factor
+        _close_corr(np.log(r[:, 0]), np.log(r[:, 1]), 0.0)           # two years
+        assert r[:, 0].std() > 0.05                                  # and they are draws
+
+
+def test_sites_draw_independent_errors_for_samples_of_the_same_identity(hand):
+    """The two sites hold samples of the same sampler id ("") and start: a sample's
+    identity leaves the site out and relies on the site's own key (noise.py).  Their
+    per-sample errors (depth, analyses) and their site-year factors must still be
+    independent: correlation 0 within 5 / sqrt(n), point budgets equal."""
+    kw = dict(depth_rel_sd=0.2, precip_conc_rel_sd=0.2, air_rel_sd=0.2,
+              gauge_catch_rel_sd=0.1, vd_gsd={**OFF["vd_gsd"], "HNO3": 1.5})
+    a, pa = _draws(hand, 0, **kw)
+    b, pb = _draws(hand, 1, **kw)
+    np.testing.assert_allclose(pa, pb, rtol=1e-12)
+    for sp, path in (("SO4", "wet"), ("NH4", "wet"), ("SO2", "dry"), ("HNO3", "dry")):
+        j = _j(hand, sp, path)
+        for m in range(3):
+            _close_corr(a[:, m, j], b[:, m, j], 0.0)
