@@ -37,6 +37,12 @@ from .layer import DRY_SPECIES, linear_layer
 from .sensitivity_options import OUTPUTS, SensitivityOptions, factor_kind
 from .uncertainty import SiteNoise, component_draws, totals_of
 
+#: Unit of the tornado's outputs by element (a period's deposition, as the budget's
+#: ``flux_kg_ha`` and ``flux_eq_ha``): tornado.csv names it in its ``unit`` column.
+OUTPUT_UNITS = {"S": "kg S/ha per period", "N": "kg N/ha per period",
+                "S+N": "eq/ha per period"}
+
+
 def _salib():
     try:
         from SALib.analyze import sobol as analyze
@@ -78,10 +84,18 @@ def saltelli_sample(prob: dict, samples: int, seed: int) -> np.ndarray:
 def sobol_indices(prob: dict, y: np.ndarray, seed: int) -> dict:
     """First-order and total Sobol indices of outputs `y` of :func:`saltelli_sample`'s
     rows, with their 95 % bootstrap intervals (SALib's ``S1``, ``S1_conf``, ``ST``,
-    ``ST_conf`` [1]; the bootstrap seeded with `seed`)."""
+    ``ST_conf`` [1]; the bootstrap seeded with `seed`).
+
+    The seed goes to SALib as a ``numpy.random.SeedSequence``: SALib's ``analyze``
+    seeds its bootstrap only ``if seed`` is true, so a seed of 0 (allowed) drew the
+    intervals from the global generator and they changed from run to run.  A
+    ``SeedSequence(seed)`` gives the stream of ``numpy.random.default_rng(seed)``,
+    the one SALib draws from any other integer: the intervals of seeds other than 0
+    are as they were.
+    """
     _, analyze = _salib()
     return analyze.analyze(prob, np.asarray(y, float), calc_second_order=False,
-                           conf_level=0.95, seed=seed)
+                           conf_level=0.95, seed=np.random.SeedSequence(int(seed)))
 
 
 def engine_value(name, options, x):
@@ -255,8 +269,9 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
     -------
     pandas.DataFrame
         ``site, receptor, period, element, quantity, factor, low, high, base,
-        output_low, output_high`` (outputs [kg ha-1] of S or N; [eq ha-1] for the
-        acidity).
+        output_low, output_high, output_base, unit``: outputs [kg ha-1] of S or N per
+        reporting period ([eq ha-1] for the acidity), the unit of each row named in
+        ``unit`` (:data:`OUTPUT_UNITS`; tornado.csv mixes the three).
     """
     from ..units import element_deposition_in
     names = list(options.factors)
@@ -287,16 +302,17 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
         conv = ((lambda v: v) if el == "S+N" else
                 (lambda v, e=el: element_deposition_in(v, e, "kg_ha")))
         b = conv(y[0, s, r, p, q])
+        unit = OUTPUT_UNITS[el]
         if not np.isfinite(b):
             continue
         for i, nm in enumerate(names):
             lo, hi = y[1 + 2 * i, s, r, p, q], y[2 + 2 * i, s, r, p, q]
             rows.append((*cell, el, quantity, nm, _label(nm, options, x[1 + 2 * i, i]),
                          _label(nm, options, x[2 + 2 * i, i]), _label(nm, options, base[i]),
-                         conv(lo), conv(hi), b))
+                         conv(lo), conv(hi), b, unit))
     return pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
                                        "factor", "low", "high", "base", "output_low",
-                                       "output_high", "output_base"])
+                                       "output_high", "output_base", "unit"])
 
 
 def _cells(coords, options):

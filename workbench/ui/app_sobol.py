@@ -138,7 +138,8 @@ class SobolExplorer(SavedText, widgets.VBox):
         sob = self.sobol if len(self.sobol) else pd.DataFrame(
             columns=cols + ["S1", "S1_conf", "ST", "ST_conf"])
         tor = self.tornado if len(self.tornado) else pd.DataFrame(
-            columns=cols + ["low", "high", "base", "output_low", "output_high", "output_base"])
+            columns=cols + ["low", "high", "base", "output_low", "output_high", "output_base",
+                            "unit"])
         return sensitivity_figure(sob, tor, site, receptor, self.year_w.value, el, quantity)
 
     def _draw(self):
