@@ -249,3 +249,34 @@ def test_sites_draw_independent_errors_for_samples_of_the_same_identity(hand):
         j = _j(hand, sp, path)
         for m in range(3):
             _close_corr(a[:, m, j], b[:, m, j], 0.0)
+
+
+def test_units_of_the_sums_with_every_factor_off(hand):
+    """Every factor off: the quantiles of the derived sums are the point sums, in the
+    units their names say.  By hand: potential acidity = 2 S + N [eq/ha] (2 eq per mol
+    of sulfate S, 1 per mol of nitrate or ammonium N; common practice) from the
+    components [mol m-2] x 1e4 m2/ha; oxidized N = NO3 + HNO3 (+ pNO3, NO2, not
+    measured here) and reduced N = NH4 (+ NH3, pNH4) [mol m-2]; summary.csv's
+    ``potential_acidity_eq_ha`` is the budget's own (workbench.budget.derived)."""
+    _, study, res = hand
+    q = U.monte_carlo(res, study, U.UncertaintyOptions(draws=5, **OFF)).budget
+    dep = res.budget["deposition"].isel(receptor=0)
+    names = [str(c) for c in dep["component"].values]
+
+    def comp(sp, path):
+        return dep.values[..., names.index(next(c for c in names if c.endswith(f"{path}/{sp}")))]
+    s = comp("SO4", "wet") + comp("SO2", "dry") + comp("pSO4", "dry")
+    ox = comp("NO3", "wet") + comp("HNO3", "dry")
+    red = comp("NH4", "wet")
+    acid = 1e4 * (2 * s + ox + red)
+    for i in range(3):
+        got = q["potential_acidity"].isel(quantile=i, receptor=0).values
+        np.testing.assert_allclose(got, acid, rtol=1e-12)
+        np.testing.assert_allclose(q["oxidized_N"].isel(quantile=i, receptor=0).values, ox,
+                                   rtol=1e-12)
+        np.testing.assert_allclose(q["reduced_N"].isel(quantile=i, receptor=0).values, red,
+                                   rtol=1e-12)
+    assert q["potential_acidity"].attrs["units"] == "eq ha-1"
+    assert q["oxidized_N"].attrs["units"] == "mol m-2"
+    np.testing.assert_allclose(res.derived["potential_acidity_eq_ha"].isel(receptor=0).values,
+                               acid, rtol=1e-12)
