@@ -214,3 +214,26 @@ def test_tornado_every_number_by_hand_with_its_unit(hand):
             assert row["output_high"] == pytest.approx(point + (hi - 1) * part, rel=1e-4)
             assert (row["low"], row["high"], row["base"]) == (str(float(lo)), str(float(hi)),
                                                               "1.0")
+
+
+def test_an_index_zero_for_want_of_data_says_so(hand):
+    """The sites measure no pNO3, pNH4, NH3 or NO2: vd_NH3 has S1 = ST = 0 on N total
+    because NH3 is not measured, not because its Vd does not matter (a range of a
+    factor of 2 either way).  sensitivity.csv and tornado.csv gave that 0 like any
+    other (the Sobol app's line says why; the files did not); now their `note` says
+    so with the budget's words, and that N total's indices are those of its measured
+    part.  S total, complete, has no note."""
+    study, _, base = hand
+    opt = SensitivityOptions(samples=16, seed=1)
+    for frame in (S.sobol(study, base, opt, KW), S.tornado(study, base, opt, KW)):
+        cell = frame[(frame["site"] == "wren") & (frame["period"] == "2021-01")]
+        n_tot = cell[(cell["element"] == "N") & (cell["quantity"] == "total")].set_index(
+            "factor")["note"]
+        s_tot = cell[(cell["element"] == "S") & (cell["quantity"] == "total")].set_index(
+            "factor")["note"]
+        for sp in ("NH3", "pNO3", "pNH4", "NO2"):
+            assert "no effect for want of data" in n_tot[f"vd_{sp}"]
+            assert f"{sp} not measured at the site" in n_tot[f"vd_{sp}"]
+        assert "no effect" not in n_tot["vd_HNO3"]
+        assert all("the total lacks pNO3 pNH4 NH3 NO2" in v for v in n_tot)
+        assert (s_tot == "").all()
