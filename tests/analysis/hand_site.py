@@ -42,8 +42,9 @@ VD = {"SO2": 0.7, "pSO4": 0.15, "HNO3": 2.2}                 # cm/s, fixed
 MOLAR = {"SO2": 64.058, "pSO4": 96.06, "HNO3": 63.012}
 
 
-def write_site(d):
-    """Write the scenario into folder `d`; return (scenario, study, result)."""
+def write_site(d, bounds=BOUNDS):
+    """Write the scenario into folder `d`; return (scenario, study, result).  `bounds`
+    replaces the sample bounds (as many as :data:`BOUNDS`, same first and last)."""
     d.mkdir(parents=True, exist_ok=True)
     sites = []
     for sid, (name, lat) in SITES.items():
@@ -57,7 +58,7 @@ def write_site(d):
     air = ["# reference_state: ambient", "site,start,end,SO2 [ug/m3],pSO4 [ug/m3],HNO3 [ug/m3]"]
     for sid in SITES:
         for i in range(len(GAUGE)):
-            s, e = f"{BOUNDS[i]:%Y-%m-%dT%H:%M}", f"{BOUNDS[i + 1]:%Y-%m-%dT%H:%M}"
+            s, e = f"{bounds[i]:%Y-%m-%dT%H:%M}", f"{bounds[i + 1]:%Y-%m-%dT%H:%M}"
             h = 2 * SO4[i] + NO3[i] - NH4[i]
             prec.append(f"{sid},{s},{e},{GAUGE[i]},{GAUGE[i] * 0.95},"
                         f"{-np.log10(h * 1e-6):.4f},{SO4[i]},{NO3[i]},{NH4[i]},0.0")

@@ -22,6 +22,7 @@ sqrt((m4 - s^4) / n), a correlation r within 5 (1 - r^2) / sqrt(n), a quantile q
 within 5 sqrt(q (1 - q) / n) / f(x_q).
 """
 import numpy as np
+import pandas as pd
 import pytest
 from scipy import optimize, stats
 
@@ -280,3 +281,33 @@ def test_units_of_the_sums_with_every_factor_off(hand):
     assert q["oxidized_N"].attrs["units"] == "mol m-2"
     np.testing.assert_allclose(res.derived["potential_acidity_eq_ha"].isel(receptor=0).values,
                                acid, rtol=1e-12)
+
+
+def test_a_straddling_sample_shares_its_errors_between_its_periods(tmp_path):
+    """docs/methods_uncertainty.md: a sample's depth error is "shared by the periods
+    the sample straddles".  The eleventh sample moved to 29 January - 8 February (72 of
+    its 240 hours in January, 168 in February, shared by hours: the default
+    `straddle`): with the depth error alone, D_p = sum_i w_ip eps_i C_i, so January
+    and February covary through that sample only, Cov(R_Jan, R_Feb) = se^2 a_Jan a_Feb
+    / (sum_Jan sum_Feb) with a = w C its two pieces (moments of independent factors,
+    from memory), the pieces 0.3 and 0.7 of the sample's P C (the shares by hours, by
+    hand)."""
+    from analysis.hand_site import BOUNDS, GAUGE, write_site
+    bounds = BOUNDS.to_numpy().copy()
+    bounds[9], bounds[10] = np.datetime64("2021-01-26"), np.datetime64("2021-01-29")
+    hand = write_site(tmp_path / "straddle", pd.DatetimeIndex(bounds))
+    se = 0.2
+    comp, point = _draws(hand, depth_rel_sd=se)
+    j = _j(hand, "NO3", "wet")
+    a = GAUGE * NO3 * 1e-6                           # each sample's P C [mol m-2]
+    jan = np.r_[a[5:10], 0.3 * a[10]]                # the pieces of January
+    feb = np.r_[0.7 * a[10], a[11:]]                 # and of February
+    np.testing.assert_allclose(point[1:, j], [jan.sum(), feb.sum()], rtol=1e-9)
+    r_jan, r_feb = comp[:, 1, j] / point[1, j], comp[:, 2, j] / point[2, j]
+    var_jan = se ** 2 * (jan ** 2).sum() / jan.sum() ** 2
+    var_feb = se ** 2 * (feb ** 2).sum() / feb.sum() ** 2
+    cov = se ** 2 * jan[-1] * feb[0] / (jan.sum() * feb.sum())
+    _close_var(r_jan, var_jan)
+    _close_var(r_feb, var_feb)
+    _close_corr(r_jan, r_feb, cov / np.sqrt(var_jan * var_feb))
+    assert cov / np.sqrt(var_jan * var_feb) > 0.15       # a correlation the test can see
