@@ -108,3 +108,62 @@ def dry_parts(species):
 def wet_parts(conc):
     """Each sample's wet deposition [mol m-2 of the ion]: P C (mm x umol/L = umol/m2)."""
     return GAUGE * conc * 1e-6
+
+
+def write_two_years(d):
+    """One invented site (``wren``) with weekly samples over the whole of 2020 and
+    2021 (values from a seeded generator, invented), fixed Vd, yearly periods: both
+    years complete, so the span row is their mean.  Returns (scenario, study, result)."""
+    d.mkdir(parents=True, exist_ok=True)
+    name, lat = SITES["wren"]
+    (d / "sites.toml").write_text(
+        f'[[site]]\nid = "wren"\nname = "{name}"\nlatitude = {lat}\nlongitude = 5.0\n'
+        'elevation_m = 20.0\nland_use = "grass"\ncanopy_height_m = 0.1\n'
+        'wind_height_m = 10.0\nsampler_height_m = 3.0\nutc_offset_h = 0\n')
+    weeks = pd.date_range("2019-12-30", "2022-01-03", freq="7D")
+    rng = np.random.default_rng(2024)
+    n = len(weeks) - 1
+    gauge = rng.uniform(2, 25, n)
+    so4, no3, nh4 = (rng.uniform(5, 35, n) for _ in range(3))
+    so2, pso4, hno3 = rng.uniform(0.5, 3.5, n), rng.uniform(0.5, 2.5, n), rng.uniform(0.2, 1, n)
+    prec = ["site,start,end,gauge_depth [mm],sample_depth [mm],pH,SO4 [umol/L],NO3 [umol/L],"
+            "NH4 [umol/L]"]
+    air = ["# reference_state: ambient", "site,start,end,SO2 [ug/m3],pSO4 [ug/m3],HNO3 [ug/m3]"]
+    for i in range(n):
+        s, e = f"{weeks[i]:%Y-%m-%dT%H:%M}", f"{weeks[i + 1]:%Y-%m-%dT%H:%M}"
+        h = max(2 * so4[i] + no3[i] - nh4[i], 1.0)
+        prec.append(f"wren,{s},{e},{gauge[i]:.2f},{gauge[i] * 0.95:.2f},"
+                    f"{-np.log10(h * 1e-6):.4f},{so4[i]:.2f},{no3[i]:.2f},{nh4[i]:.2f}")
+        air.append(f"wren,{s},{e},{so2[i]:.3f},{pso4[i]:.3f},{hno3[i]:.3f}")
+    (d / "precip.csv").write_text("\n".join(prec) + "\n")
+    (d / "air.csv").write_text("\n".join(air) + "\n")
+    t = pd.date_range(weeks[0] + pd.Timedelta("1h"), weeks[-1], freq="h")
+    pd.DataFrame({"site": "wren", "time": t.strftime("%Y-%m-%dT%H:%M"),
+                  "wind_speed [m/s]": 3.0, "temperature [degC]": 8.0,
+                  "relative_humidity [%]": 80.0, "solar_radiation [W/m2]": 0.0,
+                  "precipitation [mm]": 0.1, "pressure [hPa]": 1012.0}).to_csv(
+        d / "met.csv", index=False)
+    fixed = "\n".join(f"{k} = {v}" for k, v in VD.items())
+    (d / "scenario.toml").write_text(f"""
+[inputs]
+sites = "sites.toml"
+precipitation = "precip.csv"
+air = "air.csv"
+met = "met.csv"
+
+[period]
+start = "2020-01-01"
+end = "2022-01-01"
+resolution = "year"
+
+[budget]
+sulfate_basis = "total"
+
+[dry.fixed_velocity]
+{fixed}
+""")
+    sc = load_scenario(d / "scenario.toml")
+    study = Study.from_scenario(sc)
+    res = study.run(sc.options["wet"], sc.options["dry"], sc.options["budget"],
+                    sc.fixed_velocity, "year", "2020-01-01", "2022-01-01")
+    return sc, study, res

@@ -311,3 +311,34 @@ def test_a_straddling_sample_shares_its_errors_between_its_periods(tmp_path):
     _close_var(r_feb, var_feb)
     _close_corr(r_jan, r_feb, cov / np.sqrt(var_jan * var_feb))
     assert cov / np.sqrt(var_jan * var_feb) > 0.15       # a correlation the test can see
+
+
+def test_span_mean_of_years_with_independent_systematic_factors(tmp_path):
+    """The span row is the mean of the years that pass, each drawing its own Vd factor
+    (docs: independent between years, "a conservative choice for a multi-year mean
+    would be full correlation").  Through the public draws (annual_total_draws, eq/ha/yr)
+    with the SO2 Vd factor alone (GSD g, s = ln g): Var(S_y) = D_y^2 (e^{2 s^2} -
+    e^{s^2}) with D_y the year's dry SO2 in eq/ha/yr (2 eq per mol S, common practice),
+    the two years uncorrelated, Var(span) = (Var_2020 + Var_2021) / 4 (log-normal
+    moments, from memory), about half what full correlation between the years would
+    give here."""
+    from analysis.hand_site import write_two_years
+    _, study, res = write_two_years(tmp_path / "years")
+    g = 1.8
+    q = U.monte_carlo(res, study, U.UncertaintyOptions(draws=N, seed=5, **{
+        **OFF, "vd_gsd": {**OFF["vd_gsd"], "SO2": g}}), years_only=True)
+    d = q.total_draws["s_dep_eq_ha_yr"].sel(site="wren").isel(receptor=0)
+    assert list(d["period"].values) == ["2020", "2021", "span"]
+    names = [str(c) for c in res.years["component"].values]
+    so2 = res.years["deposition"].sel(site="wren").isel(receptor=0).values[
+        :, names.index("S/dry/SO2")] * 2 * 1e4 * res.years["annual_factor"].values
+    s2 = np.log(g) ** 2
+    var_y = so2 ** 2 * (np.exp(2 * s2) - np.exp(s2))
+    y20, y21, span = (d.sel(period=p).values for p in ("2020", "2021", "span"))
+    _close_var(y20, var_y[0])
+    _close_var(y21, var_y[1])
+    _close_corr(y20, y21, 0.0)
+    np.testing.assert_allclose(span, (y20 + y21) / 2, rtol=1e-12)
+    _close_var(span, var_y.sum() / 4)
+    full = (so2.mean()) ** 2 * (np.exp(2 * s2) - np.exp(s2))       # fully correlated
+    assert var_y.sum() / 4 < 0.6 * full
