@@ -42,9 +42,12 @@ VD = {"SO2": 0.7, "pSO4": 0.15, "HNO3": 2.2}                 # cm/s, fixed
 MOLAR = {"SO2": 64.058, "pSO4": 96.06, "HNO3": 63.012}
 
 
-def write_site(d, bounds=BOUNDS):
+def write_site(d, bounds=BOUNDS, fixed=None, met_gaps=()):
     """Write the scenario into folder `d`; return (scenario, study, result).  `bounds`
-    replaces the sample bounds (as many as :data:`BOUNDS`, same first and last)."""
+    replaces the sample bounds (as many as :data:`BOUNDS`, same first and last);
+    `fixed` the fixed Vd (default :data:`VD`; a species left out is modelled);
+    `met_gaps` lists (start, end) of hours left out of the met file (end excluded)."""
+    fixed = VD if fixed is None else fixed
     d.mkdir(parents=True, exist_ok=True)
     sites = []
     for sid, (name, lat) in SITES.items():
@@ -71,8 +74,15 @@ def write_site(d, bounds=BOUNDS):
                                    "relative_humidity [%]": 85.0,
                                    "solar_radiation [W/m2]": 0.0, "precipitation [mm]": 0.1,
                                    "pressure [hPa]": 1010.0}) for sid in SITES])
+    when = pd.to_datetime(met["time"])
+    if met_gaps:           # a sun by day (a modelled Vd needs one here), the same each day
+        met["solar_radiation [W/m2]"] = np.where((when.dt.hour >= 8) & (when.dt.hour <= 16),
+                                                 400.0, 0.0)
+    for a, b in met_gaps:
+        met = met[~((when >= pd.Timestamp(a)) & (when < pd.Timestamp(b)))]
+        when = pd.to_datetime(met["time"])
     met.to_csv(d / "met.csv", index=False)
-    fixed = "\n".join(f"{k} = {v}" for k, v in VD.items())
+    fixed = "\n".join(f"{k} = {v}" for k, v in fixed.items())
     (d / "scenario.toml").write_text(f"""
 [inputs]
 sites = "sites.toml"

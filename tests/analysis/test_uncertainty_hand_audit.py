@@ -342,3 +342,32 @@ def test_span_mean_of_years_with_independent_systematic_factors(tmp_path):
     _close_var(span, var_y.sum() / 4)
     full = (so2.mean()) ** 2 * (np.exp(2 * s2) - np.exp(s2))       # fully correlated
     assert var_y.sum() / 4 < 0.6 * full
+
+
+def test_gap_filled_vd_error_acts_on_the_filled_hours_only(tmp_path):
+    """docs/methods_uncertainty.md, "gap-filled Vd eta": a normal error of SD
+    `vd_fill_rel_sd` on the share phi of a sampling period's hours whose Vd is not
+    modelled.  HNO3's Vd modelled by the engine, the same met every day (its Vd a
+    function of the hour of day alone, so whole days of a sample deposit in
+    proportion to C t, by hand), two whole days of met left out of the 7th sample
+    (January: phi = 48/168) and one of the 11th (February: phi = 24/168): with the fill
+    error alone, D_p / D_p0 - 1 = a_n phi_n eta_n / sum a (one filled sample per
+    month), Var = s^2 (a_n phi_n / sum a)^2 (moments of a normal, from memory);
+    December, without filled hours, does not move."""
+    from analysis.hand_site import write_site
+    hand = write_site(tmp_path / "gaps", fixed={"SO2": 0.7, "pSO4": 0.15},
+                      met_gaps=[("2021-01-10T01:00", "2021-01-12T01:00"),
+                                ("2021-02-02T01:00", "2021-02-03T01:00")])
+    s = 0.3
+    comp, point = _draws(hand, vd_fill_rel_sd=s)
+    j = _j(hand, "HNO3", "dry")
+    a = dry_parts("HNO3")                      # C t (x a Vd common to the days) by hand
+    r = comp[:, :, j] / point[:, j]
+    np.testing.assert_array_equal(r[:, 0], 1.0)                 # December: nothing filled
+    for m, n, phi in ((1, 6, 48 / 168), (2, 10, 24 / 168)):
+        share = a[n] * phi / a[MONTH == m].sum()
+        assert abs(r[:, m].mean() - 1) < 5 * r[:, m].std() / np.sqrt(N)
+        _close_var(r[:, m], (s * share) ** 2)
+    # the other dry species (fixed Vd) take no fill error
+    np.testing.assert_array_equal(comp[:, :, _j(hand, "SO2", "dry")],
+                                  np.broadcast_to(point[:, _j(hand, "SO2", "dry")], (N, 3)))
