@@ -120,10 +120,14 @@ def wet_parts(conc):
     return GAUGE * conc * 1e-6
 
 
-def write_two_years(d):
+def write_two_years(d, resolution="year", no_chemistry=None, period_fill="none"):
     """One invented site (``wren``) with weekly samples over the whole of 2020 and
     2021 (values from a seeded generator, invented), fixed Vd, yearly periods: both
-    years complete, so the span row is their mean.  Returns (scenario, study, result)."""
+    years complete, so the span row is their mean.  Returns (scenario, study, result).
+
+    `no_chemistry` (start, end): the precipitation samples starting then keep their
+    depth but lose their chemistry (a period that fails its valid-precipitation
+    share); `period_fill` is ``[wet] period_fill``."""
     d.mkdir(parents=True, exist_ok=True)
     name, lat = SITES["wren"]
     (d / "sites.toml").write_text(
@@ -142,8 +146,11 @@ def write_two_years(d):
     for i in range(n):
         s, e = f"{weeks[i]:%Y-%m-%dT%H:%M}", f"{weeks[i + 1]:%Y-%m-%dT%H:%M}"
         h = max(2 * so4[i] + no3[i] - nh4[i], 1.0)
-        prec.append(f"wren,{s},{e},{gauge[i]:.2f},{gauge[i] * 0.95:.2f},"
-                    f"{-np.log10(h * 1e-6):.4f},{so4[i]:.2f},{no3[i]:.2f},{nh4[i]:.2f}")
+        chem = (f"{-np.log10(h * 1e-6):.4f},{so4[i]:.2f},{no3[i]:.2f},{nh4[i]:.2f}"
+                if no_chemistry is None or not (pd.Timestamp(no_chemistry[0]) <= weeks[i]
+                                                < pd.Timestamp(no_chemistry[1]))
+                else ",,,")
+        prec.append(f"wren,{s},{e},{gauge[i]:.2f},{gauge[i] * 0.95:.2f},{chem}")
         air.append(f"wren,{s},{e},{so2[i]:.3f},{pso4[i]:.3f},{hno3[i]:.3f}")
     (d / "precip.csv").write_text("\n".join(prec) + "\n")
     (d / "air.csv").write_text("\n".join(air) + "\n")
@@ -164,7 +171,10 @@ met = "met.csv"
 [period]
 start = "2020-01-01"
 end = "2022-01-01"
-resolution = "year"
+resolution = "{resolution}"
+
+[wet]
+period_fill = "{period_fill}"
 
 [budget]
 sulfate_basis = "total"
@@ -175,5 +185,5 @@ sulfate_basis = "total"
     sc = load_scenario(d / "scenario.toml")
     study = Study.from_scenario(sc)
     res = study.run(sc.options["wet"], sc.options["dry"], sc.options["budget"],
-                    sc.fixed_velocity, "year", "2020-01-01", "2022-01-01")
+                    sc.fixed_velocity, resolution, "2020-01-01", "2022-01-01")
     return sc, study, res
