@@ -66,3 +66,30 @@ def test_range_note_of_arrays_and_of_nothing_missing():
     assert "not measured: NO2)" in notes[0] and "not measured: NH3 pNH4)" in notes[4]
     assert list(notes[1:4]) == ["", "", ""]
     assert range_note("") == "" and range_note(np.nan) == ""
+
+
+def test_units_of_the_quantile_columns_by_hand(run):
+    """budget.csv's quantile columns in the units their names say, by hand from the
+    mmol/m2 column: 1 mmol m-2 of an element of molar mass M g/mol = M mg m-2 =
+    M / 100 kg/ha (S 32.06, N 14.007, IUPAC atomic weights from memory); eq/ha =
+    mmol m-2 x 10 x eq per mol (S 2, N 1: common practice); a yearly rate = the
+    period's value x the period's annual factor (summary.csv's, 8760 h over the hours
+    of February 2021 here, computed by hand); summary.csv's totals [kg/ha per period]
+    are budget.csv's."""
+    b = pd.read_csv(run["budget.csv"])
+    s = pd.read_csv(run["summary.csv"])
+    rows = b[b["period"] != "span"].dropna(subset=["flux_mmol_m2_p50"])
+    molar = rows["element"].map({"S": 32.06, "N": 14.007})
+    eq = rows["element"].map({"S": 2.0, "N": 1.0})
+    factor = 8760.0 / (28 * 24)
+    assert s.loc[0, "annual_factor"] == pytest.approx(factor, rel=1e-8)   # CSV digits
+    for q in ("_p05", "_p50", "_p95"):
+        mmol = rows["flux_mmol_m2" + q]
+        np.testing.assert_allclose(rows["flux_kg_ha" + q], mmol * molar / 100, rtol=1e-8)
+        np.testing.assert_allclose(rows["flux_eq_ha" + q], mmol * 10 * eq, rtol=1e-8)
+        np.testing.assert_allclose(rows["flux_kg_ha_yr" + q], rows["flux_kg_ha" + q] * factor,
+                                   rtol=1e-8)
+        for e in ("S", "N"):
+            tot = rows[(rows["element"] == e) & (rows["pathway"] == "total")]
+            assert s.loc[0, f"{e}_total_kg_ha{q}"] == pytest.approx(
+                tot["flux_kg_ha" + q].iloc[0], rel=1e-8)
