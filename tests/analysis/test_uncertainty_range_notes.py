@@ -56,7 +56,8 @@ def test_summary_csv_names_the_sums_whose_range_is_partial(run):
 def test_report_says_what_the_ranges_leave_out(run):
     text = run["report.html"].read_text(encoding="utf-8")
     for words in ("difference between the gas schemes", "coverage is short",
-                  "flagged samples kept", "no upper bound", "the range covers"):
+                  "flagged samples kept", "gauge depths filled", "no upper bound",
+                  "the range covers"):
         assert words in text, words
 
 

@@ -193,7 +193,8 @@ REPORT_TEXT = (
     "species and processes); the difference between the gas schemes (the Vd factors "
     "stand for model spread in general, not for the scheme chosen); the scaling of a "
     "period's measured hours or samples to the whole period where coverage is short; "
-    "flagged samples kept at their values (they get the ordinary errors). A total "
+    "flagged samples kept at their values and gauge depths filled from the collector or "
+    "the met record (they get the ordinary errors). A total "
     "lacking components (status partial) has the range of its measured components: "
     "the total's quantiles are at least these and its 95 % is no upper bound (column "
     "'the range covers').")
