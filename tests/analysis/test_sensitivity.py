@@ -46,7 +46,7 @@ def test_sobol_of_a_linear_additive_total_gives_the_variance_shares(tiny):
         assert abs(got.loc[f, "S1"] - want) <= got.loc[f, "S1_conf"] + 0.02, f
         assert abs(got.loc[f, "ST"] - want) <= got.loc[f, "ST_conf"] + 0.02, f
     assert list(frame.columns) == ["site", "receptor", "period", "element", "quantity",
-                                   "factor", "S1", "S1_conf", "ST", "ST_conf"]
+                                   "factor", "S1", "S1_conf", "ST", "ST_conf", "note"]
 
 
 def test_same_seed_same_numbers(tiny):
@@ -104,7 +104,7 @@ def test_cli_writes_the_sensitivity_folder(tiny, tmp_path):
     assert main(["sensitivity", str(sc.path), "--out", str(tmp_path / "sens"), "--quiet"]) == 0
     frame = pd.read_csv(tmp_path / "sens" / "sensitivity.csv")
     assert list(frame.columns) == ["site", "receptor", "period", "element", "quantity",
-                                   "factor", "S1", "S1_conf", "ST", "ST_conf"]
+                                   "factor", "S1", "S1_conf", "ST", "ST_conf", "note"]
     assert set(frame["factor"]) == {"vd_SO2", "gauge_catch", "wetness_rule"}
     assert (tmp_path / "sens" / "tornado.csv").exists()
     html = (tmp_path / "sens" / "sensitivity.html").read_text()

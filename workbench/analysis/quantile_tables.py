@@ -43,6 +43,64 @@ def _long(values, sites, receptors, periods, names, elements, pathways, species,
     return frame
 
 
+def range_note(missing):
+    """What the 5-95 % range of a total lacking components covers [text].
+
+    Parameters
+    ----------
+    missing : str or ndarray of str
+        The components without data (``missing_components``, space-separated; empty
+        or not text where the total lacks none).
+
+    Returns
+    -------
+    str or ndarray of str
+        ``""`` where nothing is missing; else the note: the draws scale the measured
+        components only, so each quantile is at most the total's (the missing
+        components add a deposition >= 0 the draws do not hold) and the 95 % is no
+        upper bound.
+    """
+    m = pd.Series(np.atleast_1d(np.asarray(missing, dtype=object))).map(
+        lambda v: v.strip() if isinstance(v, str) else "")
+    note = np.where(m != "", "range of the measured components only (not measured: " + m
+                    + "): the total's quantiles are at least these, the 95 % is no upper "
+                    "bound", "")
+    return note if np.ndim(missing) else str(note[0])
+
+
+def summary_range_notes(budget: xr.Dataset) -> xr.DataArray:
+    """summary.csv's ``range_note``: the totals and sums whose 5-95 % range holds the
+    measured components only, per (site, receptor, period) [text].
+
+    From the budget's ``total_missing_components``: a total lacking a component, the
+    oxidized (reduced) N lacking an oxidized (reduced) N component, the potential
+    acidity lacking any S or N component.
+    """
+    from ..budget import OXIDIZED_N, REDUCED_N
+    miss = budget["total_missing_components"].transpose("site", "receptor", "period",
+                                                        "total")
+    names = [str(t) for t in miss["total"].values]
+    cells = miss.values.reshape(-1, len(names))
+    out = np.full(len(cells), "", dtype=object)
+    for i, row in enumerate(cells):        # one per (site, receptor, period) cell
+        lists = {n: (v.split() if isinstance(v, str) else []) for n, v in zip(names, row)}
+        n_all = lists.get("N_total", [])
+        lists["oxidized_N"] = [c for c in n_all if c in OXIDIZED_N]
+        lists["reduced_N"] = [c for c in n_all if c in REDUCED_N]
+        lists["potential_acidity"] = lists.get("S_total", []) + n_all
+        lacking = [n for n in TOTALS + ("oxidized_N", "reduced_N", "potential_acidity")
+                   if lists.get(n)]
+        if lacking:
+            gone = " ".join(dict.fromkeys(lists["potential_acidity"]))
+            out[i] = (f"ranges of {', '.join(lacking)}: the measured components only (not "
+                      f"measured: {gone}): those totals' quantiles are at least these, "
+                      "their 95 % is no upper bound")
+    return xr.DataArray(out.reshape(miss.shape[:3]), dims=("site", "receptor", "period"),
+                        coords={k: miss[k].values for k in ("site", "receptor", "period")},
+                        attrs={"long_name": "what the 5-95 % ranges of a row cover "
+                                            "(docs/methods_uncertainty.md)"})
+
+
 def quantile_table(q, annual_factor) -> pd.DataFrame:
     """The quantile columns of budget.csv, keyed by (site, receptor, period, element,
     pathway, species), for the periods of the budget and the span rows.
@@ -117,13 +175,26 @@ def report_section(table, to_html) -> list:
     tot = table[table["species"] == "all"]
     cols = ["site", "receptor", "period", "element", "pathway", "flux_kg_ha_yr",
             "flux_kg_ha_yr_p05", "flux_kg_ha_yr_p50", "flux_kg_ha_yr_p95", "status"]
+    cols += [c for c in ("range_note",) if c in tot]
     frame = tot[cols].rename(columns={"flux_kg_ha_yr": "kg/ha/yr", "flux_kg_ha_yr_p05": "5 %",
-                                      "flux_kg_ha_yr_p50": "50 %", "flux_kg_ha_yr_p95": "95 %"})
+                                      "flux_kg_ha_yr_p50": "50 %", "flux_kg_ha_yr_p95": "95 %",
+                                      "range_note": "the range covers"})
     return ["<h2>Uncertainty: 5-95 % range of every total [kg/ha/yr of S or N]</h2>",
-            "<p>" + html.escape(
-                "Quantiles of a Monte Carlo of the budget: Vd model factors (log-normal, "
-                "systematic per site-year), analytical and depth errors per sample, gauge "
-                "catch per site-year, gap-filled Vd and PWMs (docs/methods_uncertainty.md). "
-                "They bound the errors named there only; errors of the method itself "
-                "(omitted species and processes) are not in the range.") + "</p>",
-            to_html(frame)]
+            "<p>" + html.escape(REPORT_TEXT) + "</p>", to_html(frame)]
+
+
+#: What the ranges hold and leave out, as the report says it (docs/methods_uncertainty.md,
+#: "What a range covers").
+REPORT_TEXT = (
+    "Quantiles of a Monte Carlo of the budget: Vd model factors (log-normal, "
+    "systematic per site-year), analytical and depth errors per sample, gauge catch per "
+    "site-year, gap-filled Vd and PWMs (docs/methods_uncertainty.md). They bound the "
+    "errors named there only. Not in the range: errors of the method itself (omitted "
+    "species and processes); the difference between the gas schemes (the Vd factors "
+    "stand for model spread in general, not for the scheme chosen); the scaling of a "
+    "period's measured hours or samples to the whole period where coverage is short; "
+    "flagged samples kept at their values and gauge depths filled from the collector or "
+    "the met record (they get the ordinary errors). A total "
+    "lacking components (status partial) has the range of its measured components: "
+    "the total's quantiles are at least these and its 95 % is no upper bound (column "
+    "'the range covers').")

@@ -37,6 +37,12 @@ from .layer import DRY_SPECIES, linear_layer
 from .sensitivity_options import OUTPUTS, SensitivityOptions, factor_kind
 from .uncertainty import SiteNoise, component_draws, totals_of
 
+#: Unit of the tornado's outputs by element (a period's deposition, as the budget's
+#: ``flux_kg_ha`` and ``flux_eq_ha``): tornado.csv names it in its ``unit`` column.
+OUTPUT_UNITS = {"S": "kg S/ha per period", "N": "kg N/ha per period",
+                "S+N": "eq/ha per period"}
+
+
 def _salib():
     try:
         from SALib.analyze import sobol as analyze
@@ -78,10 +84,18 @@ def saltelli_sample(prob: dict, samples: int, seed: int) -> np.ndarray:
 def sobol_indices(prob: dict, y: np.ndarray, seed: int) -> dict:
     """First-order and total Sobol indices of outputs `y` of :func:`saltelli_sample`'s
     rows, with their 95 % bootstrap intervals (SALib's ``S1``, ``S1_conf``, ``ST``,
-    ``ST_conf`` [1]; the bootstrap seeded with `seed`)."""
+    ``ST_conf`` [1]; the bootstrap seeded with `seed`).
+
+    The seed goes to SALib as a ``numpy.random.SeedSequence``: SALib's ``analyze``
+    seeds its bootstrap only ``if seed`` is true, so a seed of 0 (allowed) drew the
+    intervals from the global generator and they changed from run to run.  A
+    ``SeedSequence(seed)`` gives the stream of ``numpy.random.default_rng(seed)``,
+    the one SALib draws from any other integer: the intervals of seeds other than 0
+    are as they were.
+    """
     _, analyze = _salib()
     return analyze.analyze(prob, np.asarray(y, float), calc_second_order=False,
-                           conf_level=0.95, seed=seed)
+                           conf_level=0.95, seed=np.random.SeedSequence(int(seed)))
 
 
 def engine_value(name, options, x):
@@ -177,7 +191,8 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
     y : ndarray (n, S, R, P, Q)
         Outputs of :data:`OUTPUTS` [mol m-2; eq ha-1 for the acidity].
     coords : dict
-        ``site``, ``receptor``, ``period`` labels.
+        ``site``, ``receptor``, ``period`` labels, and ``data``: :func:`data_notes` of
+        the budget.
     """
     names = list(options.factors)
     engine = [i for i, nm in enumerate(names) if factor_kind(nm) != "linear"]
@@ -198,6 +213,8 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
             coords = {k: [str(v) for v in ds[k].values] for k in ("site", "receptor", "period")}
             y = np.full((len(x),) + tuple(len(v) for v in coords.values()) + (len(OUTPUTS),),
                         np.nan)
+            # what the budget lacks (no engine factor changes which data a site has)
+            coords["data"] = data_notes(ds)
         rows = np.asarray(rows)
         values = {names[i]: x[rows, i] for i in linear}
         for s in range(len(coords["site"])):
@@ -226,7 +243,9 @@ def sobol(study, base_options: dict, options: SensitivityOptions, run_kwargs=Non
     -------
     pandas.DataFrame
         Columns ``site, receptor, period, element, quantity, factor, S1, S1_conf, ST,
-        ST_conf`` [1]; outputs that do not vary (a missing total) are left out.
+        ST_conf`` [1] and ``note`` (:func:`row_note`: an index 0 for want of data, a
+        total lacking components); outputs that do not vary (a missing total) are left
+        out.
     """
     prob = problem(options)
     x = saltelli_sample(prob, options.samples, options.seed)
@@ -239,9 +258,10 @@ def sobol(study, base_options: dict, options: SensitivityOptions, run_kwargs=Non
         si = sobol_indices(prob, v, options.seed)
         for i, name in enumerate(prob["names"]):
             rows.append((*cell, el, quantity, name, si["S1"][i], si["S1_conf"][i],
-                         si["ST"][i], si["ST_conf"][i]))
+                         si["ST"][i], si["ST_conf"][i],
+                         row_note(name, el, quantity, coords["data"][(s, r, p)])))
     return pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
-                                       "factor", "S1", "S1_conf", "ST", "ST_conf"])
+                                       "factor", "S1", "S1_conf", "ST", "ST_conf", "note"])
 
 
 def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=None,
@@ -255,8 +275,10 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
     -------
     pandas.DataFrame
         ``site, receptor, period, element, quantity, factor, low, high, base,
-        output_low, output_high`` (outputs [kg ha-1] of S or N; [eq ha-1] for the
-        acidity).
+        output_low, output_high, output_base, unit, note``: outputs [kg ha-1] of S or
+        N per reporting period ([eq ha-1] for the acidity), the unit of each row named
+        in ``unit`` (:data:`OUTPUT_UNITS`; tornado.csv mixes the three), ``note`` as in
+        :func:`sobol`.
     """
     from ..units import element_deposition_in
     names = list(options.factors)
@@ -287,16 +309,92 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
         conv = ((lambda v: v) if el == "S+N" else
                 (lambda v, e=el: element_deposition_in(v, e, "kg_ha")))
         b = conv(y[0, s, r, p, q])
+        unit = OUTPUT_UNITS[el]
         if not np.isfinite(b):
             continue
         for i, nm in enumerate(names):
             lo, hi = y[1 + 2 * i, s, r, p, q], y[2 + 2 * i, s, r, p, q]
             rows.append((*cell, el, quantity, nm, _label(nm, options, x[1 + 2 * i, i]),
                          _label(nm, options, x[2 + 2 * i, i]), _label(nm, options, base[i]),
-                         conv(lo), conv(hi), b))
+                         conv(lo), conv(hi), b, unit,
+                         row_note(nm, el, quantity, coords["data"][(s, r, p)])))
     return pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
                                        "factor", "low", "high", "base", "output_low",
-                                       "output_high", "output_base"])
+                                       "output_high", "output_base", "unit", "note"])
+
+
+def data_notes(ds) -> dict:
+    """What the budget `ds` lacks in each cell, for the notes of the indices.
+
+    Returns
+    -------
+    dict
+        ``(s, r, p)`` indices -> ``(lacking, idle)``: ``lacking`` maps each output key
+        of :data:`OUTPUTS` to the components it lacks (space-separated; the potential
+        acidity lacks those of S and N total); ``idle`` maps ``(pathway, species)`` of
+        a component without a deposition of its own (NaN, or 0 with a note, e.g. a
+        particle counted in a bulk collector's wet) to the budget's note.
+    """
+    from ..budget import COMPONENTS
+    dep = ds["deposition"].transpose("site", "receptor", "period", "component").values
+    notes = ds["note"].transpose("site", "receptor", "period", "component").values
+    miss = ds["total_missing_components"].transpose("site", "receptor", "period",
+                                                    "total").values
+    totals = [str(t) for t in ds["total"].values]
+    out = {}
+    for idx in np.ndindex(*dep.shape[:3]):      # one per (site, receptor, period) cell
+        lacking = {t: (m.strip() if isinstance(m, str) else "")
+                   for t, m in zip(totals, miss[idx])}
+        lacking["potential_acidity"] = " ".join(
+            v for v in (lacking.get("S_total", ""), lacking.get("N_total", "")) if v)
+        idle = {}
+        for j, (_, path, sp) in enumerate(COMPONENTS):
+            v, note = dep[idx + (j,)], notes[idx + (j,)]
+            if (not np.isfinite(v) or v == 0) and isinstance(note, str) and note.strip():
+                idle[(path, sp)] = note.strip()
+        out[idx] = (lacking, idle)
+    return out
+
+
+def _scales(name, path, species) -> bool:
+    """Whether the linear factor `name` scales the component (path, species)."""
+    if name.startswith("vd_"):
+        return path == "dry" and species == name[3:]
+    return path == {"gauge_catch": "wet", "precip_conc": "wet", "air_conc": "dry"}.get(name)
+
+
+def row_note(name, element, quantity, data) -> str:
+    """The note of a row of sensitivity.csv or tornado.csv [text] ("" for none).
+
+    An index 0 because the factor reaches only components without data at the site
+    (a species not measured, a particle counted in a bulk collector's wet) says so,
+    with the budget's note: it is no small effect.  A total lacking components says
+    that its indices are those of its measured part.
+
+    Parameters
+    ----------
+    name : str
+        The factor.
+    element, quantity : str
+        The output (:data:`OUTPUTS`).
+    data : tuple
+        ``(lacking, idle)`` of the cell (:func:`data_notes`).
+    """
+    from ..budget import COMPONENTS
+    lacking, idle = data
+    key = next(k for e, qn, k in OUTPUTS if e == element and qn == quantity)
+    parts = []
+    if factor_kind(name) == "linear":
+        reach = [(path, sp) for el, path, sp in COMPONENTS
+                 if (element == "S+N" or el == element)
+                 and quantity in ("total", "potential_acidity", path)
+                 and _scales(name, path, sp)]
+        if reach and all(c in idle for c in reach):
+            parts.append("no effect for want of data: " + "; ".join(
+                f"{path} {sp} {idle[(path, sp)]}" for path, sp in reach))
+    if lacking.get(key):
+        parts.append(f"the total lacks {lacking[key]}: indices of its measured part")
+    return "; ".join(parts)
 
 
 def _cells(coords, options):

@@ -46,7 +46,8 @@ from .layer import DRY_SPECIES, LinearLayer, linear_layer
 from .noise import (SAMPLE_STREAM, YEAR_STREAM, SiteNoise, _normal_factor,  # noqa: F401
                     _stream_key, keyed_normal_factor, site_noise)
 from .quantile_tables import (QUANTILES, SUFFIXES, TOTALS, quantile_table,  # noqa: F401
-                              report_section, summary_dataset)
+                              range_note, report_section, summary_dataset,
+                              summary_range_notes)
 
 
 #: Geometric standard deviation of the Vd model factor per species [1].  Values chosen
@@ -489,7 +490,9 @@ def add_quantiles(obj, q: BudgetQuantiles | None, annual_factor=None):
     ----------
     obj : pandas.DataFrame or xarray.Dataset
         budget.csv rows (:attr:`workbench.pipeline.Result.table`): gets
-        ``<flux column>_p05``, ``_p50``, ``_p95`` after the public first columns;
+        ``<flux column>_p05``, ``_p50``, ``_p95`` after the public first columns, and
+        ``range_note`` (:func:`~.quantile_tables.range_note`: a total lacking
+        components has the range of its measured part only);
         summary.csv rows (``result.derived.to_dataframe()``) or the derived Dataset:
         gets ``<total>_kg_ha`` and its quantiles for every total, and the quantiles of
         ``oxidized_N_kg_ha``, ``reduced_N_kg_ha`` and ``potential_acidity_eq_ha``;
@@ -508,6 +511,10 @@ def add_quantiles(obj, q: BudgetQuantiles | None, annual_factor=None):
         keys = ["site", "receptor", "period", "element", "pathway", "species"]
         out = obj.assign(period=obj["period"].astype(str)).merge(qt, on=keys, how="left")
         out.index = obj.index
+        if "missing_components" in out:       # a partial total: the measured part's range
+            miss = np.where(np.isfinite(out["flux_kg_ha_p05"].to_numpy(float)),
+                            out["missing_components"].to_numpy(object), "")
+            out["range_note"] = range_note(miss)
         return out
     if isinstance(obj, pd.DataFrame):
         extra = summary_dataset(q).to_dataframe().reset_index()
@@ -529,7 +536,8 @@ def with_uncertainty(result, study, scenario):
     Returns `result` itself when the scenario asks for no draws (``[uncertainty] draws =
     0``, the default); otherwise a copy whose ``table`` (budget.csv), ``derived``
     (summary.csv) and ``budget`` (budget.nc) carry the quantiles of
-    :func:`monte_carlo`, and whose ``options["uncertainty"]`` holds them.
+    :func:`monte_carlo`, and whose ``options["uncertainty"]`` holds them; the derived
+    sums get ``range_note`` (:func:`~.quantile_tables.summary_range_notes`).
     """
     import dataclasses
     opt = (scenario.options.get("uncertainty") if scenario is not None else None)
@@ -539,7 +547,8 @@ def with_uncertainty(result, study, scenario):
     new = dataclasses.replace(result, budget=add_quantiles(result.budget, q),
                               options={**result.options, "uncertainty": q})
     new.__dict__["table"] = add_quantiles(result.table, q, result.budget["annual_factor"].values)
-    new.__dict__["derived"] = add_quantiles(result.derived, q)
+    new.__dict__["derived"] = add_quantiles(result.derived, q).assign(
+        range_note=summary_range_notes(result.budget))
     new.budget.attrs["uncertainty"] = json.dumps(opt.to_dict(), sort_keys=True)
     return new
 

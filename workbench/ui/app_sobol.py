@@ -136,9 +136,10 @@ class SobolExplorer(SavedText, widgets.VBox):
                                                             self.receptor_w.value)
         cols = ["site", "receptor", "period", "element", "quantity", "factor"]
         sob = self.sobol if len(self.sobol) else pd.DataFrame(
-            columns=cols + ["S1", "S1_conf", "ST", "ST_conf"])
+            columns=cols + ["S1", "S1_conf", "ST", "ST_conf", "note"])
         tor = self.tornado if len(self.tornado) else pd.DataFrame(
-            columns=cols + ["low", "high", "base", "output_low", "output_high", "output_base"])
+            columns=cols + ["low", "high", "base", "output_low", "output_high", "output_base",
+                            "unit", "note"])
         return sensitivity_figure(sob, tor, site, receptor, self.year_w.value, el, quantity)
 
     def _draw(self):

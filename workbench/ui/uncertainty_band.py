@@ -2,7 +2,8 @@
 
 :func:`with_range` adds the range of every total to a spec of
 :func:`workbench.ui.figures.budget_bars_spec` as asymmetric error bars on the total
-markers; the site explorer calls it on every redraw, so the range follows each change
+markers (a total lacking components gets its lower arm only: the draws hold its
+measured part, whose 95 % is no upper bound of the total); the site explorer calls it on every redraw, so the range follows each change
 of an assumption.  Nothing changes while ``[uncertainty] draws`` is 0 (the default).
 """
 from __future__ import annotations
@@ -16,7 +17,8 @@ from .summaries import total_rates
 
 
 def total_ranges(result, study, site, receptor, unit, options, overrides=None) -> dict:
-    """(element, period) -> (p05, p95) of each element total's yearly rate [unit].
+    """(element, period) -> (p05, p95) of each element total's yearly rate [unit]; p95
+    is NaN for a total lacking components (its range is that of the measured part).
 
     Parameters
     ----------
@@ -30,7 +32,7 @@ def total_ranges(result, study, site, receptor, unit, options, overrides=None) -
     overrides : dict, optional
         The site overrides the run was made with.
     """
-    from ..analysis.uncertainty import monte_carlo
+    from ..analysis.uncertainty import monte_carlo, range_note
     q = monte_carlo(result, study, options, overrides=overrides, years_only=True).years
     ds = result.years
     out = {}
@@ -40,7 +42,12 @@ def total_ranges(result, study, site, receptor, unit, options, overrides=None) -
         t = total_rates(ds.assign(total_deposition=v), site, receptor, None, unit)
         ends.append(t[t["pathway"] == "total"])
     for (_, lo), (_, hi) in zip(ends[0].iterrows(), ends[1].iterrows()):
-        out[(lo["element"], lo["period"])] = (float(lo["value"]), float(hi["value"]))
+        # a total lacking components: the draws hold its measured part only, whose 5 %
+        # is a lower bound of the total's and whose 95 % is no upper bound (NaN: no arm)
+        partial = bool(range_note(lo["missing"] if lo["missing"] not in ("nan", "None")
+                                  else ""))
+        out[(lo["element"], lo["period"])] = (float(lo["value"]),
+                                              np.nan if partial else float(hi["value"]))
     return out
 
 
@@ -58,10 +65,13 @@ def with_range(spec: dict, study, result, site, receptor, unit, options, overrid
         lo, hi = [], []
         for el, p, y in zip(els, pers, trace["y"]):
             a, b = ranges.get((el, p), (np.nan, np.nan))
-            ok = y is not None and np.isfinite(a) and np.isfinite(b)
+            ok = y is not None and np.isfinite(a)
             lo.append(float(y - a) if ok else None)
-            hi.append(float(b - y) if ok else None)
+            # a partial total: the lower arm only (its 95 % is no upper bound)
+            hi.append(float(b - y) if ok and np.isfinite(b) else None)
         trace["error_y"] = {"type": "data", "symmetric": False, "array": hi, "arrayminus": lo,
                             "color": OKABE_ITO["black"], "thickness": 1.5, "width": 6}
-        trace["name"] = "total (5-95 % range)"
+        partial = any(h is None and m is not None for h, m in zip(hi, lo))
+        trace["name"] = ("total (5-95 % range; partial: 5 % only)" if partial
+                         else "total (5-95 % range)")
     return spec
