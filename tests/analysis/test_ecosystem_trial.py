@@ -56,3 +56,73 @@ def test_stated_cut_is_rounded_up_so_that_it_ends_the_exceedance():
     # a need below 1 % reads 1 %, never "by 0 %"; a whole percent stays whole
     from workbench.analysis.whatif import percent_up
     assert percent_up(0.003) == 1 and percent_up(0.25) == 25 and percent_up(0.5 * 0.5) == 25
+
+
+# ------------------------------------------------------------ the group's own file
+#: The group's sites.toml as the docs lead one to write it: the forest soil in
+#: [site.critical_loads], a heathland with a nutrient-N load only, a lake with an
+#: acidity function only (invented values, eq/ha/yr).
+OWN = """
+[[site]]
+id = "hollin"
+name = "Hollin Test Forest"
+latitude = 52.0
+longitude = 5.0
+elevation_m = 20.0
+land_use = "conifer_forest"
+canopy_height_m = 14.0
+wind_height_m = 20.0
+sampler_height_m = 3.0
+utc_offset_h = 1
+receptors = ["moorland", "water", "grass"]
+
+[site.critical_loads]          # coniferous forest soil
+cl_max_s = 1200.0
+cl_min_n = 350.0
+cl_max_n = 2100.0
+cl_nut_n = 850.0
+
+[site.critical_loads.moorland] # heathland: nutrient N only
+cl_nut_n = 700.0
+
+[site.critical_loads.water]    # lake: acidity function only
+cl_max_s = 400.0
+cl_min_n = 100.0
+cl_max_n = 700.0
+"""
+
+
+def _totals(rows):
+    import pandas as pd
+    return pd.DataFrame([{"site": "hollin", "receptor": r, "period": "2021",
+                          "s_dep_eq_ha_yr": s, "n_dep_eq_ha_yr": n, "s_status": "complete",
+                          "n_status": "complete", "s_missing": "", "n_missing": ""}
+                         for r, s, n in rows])
+
+
+def test_keys_taken_from_the_site_table_are_noted(tmp_path):
+    """The heathland's acidity function and the lake's nutrient-N load come from the
+    forest soil's [site.critical_loads] (documented: "the rest come from
+    [site.critical_loads]"); exceedance.csv gave the heathland an acidity exceedance and
+    the lake a nutrient-N exceedance of the forest's loads with an empty note."""
+    from workbench.analysis.exceedance import exceedance_from_totals
+    from workbench.io import read_sites
+    p = tmp_path / "sites.toml"
+    p.write_text(OWN, encoding="utf-8")
+    cat = read_sites(p)
+    t = exceedance_from_totals(_totals([("conifer_forest", 600.0, 1300.0),
+                                        ("moorland", 600.0, 1200.0),
+                                        ("water", 660.0, 1100.0), ("grass", 500.0, 900.0)]),
+                               cat).set_index("receptor")
+    assert "cl_max_s, cl_min_n, cl_max_n from the site's critical loads, given for " \
+        "conifer_forest (not in [site.critical_loads.moorland])" in t.loc["moorland", "note"]
+    assert "cl_nut_n from the site's critical loads, given for conifer_forest" \
+        in t.loc["water", "note"]
+    assert t.loc["grass", "note"] == "the site's critical loads, given for conifer_forest"
+    assert t.loc["conifer_forest", "note"] == ""
+    # the lake, hand-worked on its own function (400, 100, 700), dN = 600: region 3
+    # (k = (400 x 1100 + 600 x 660 - 400 x 700) / (400^2 + 600^2) = 556000 / 520000,
+    # Ex = k (400 + 600) = 1069.23); nutrient N 1100 - 850 = 250 (from the forest's)
+    assert t.loc["water", "ex_acidity_eq_ha_yr"] == pytest.approx(556000 / 520000 * 1000)
+    assert t.loc["water", "region"] == 3
+    assert t.loc["water", "ex_nutrient_n_eq_ha_yr"] == pytest.approx(250.0)
