@@ -126,3 +126,26 @@ def test_keys_taken_from_the_site_table_are_noted(tmp_path):
     assert t.loc["water", "ex_acidity_eq_ha_yr"] == pytest.approx(556000 / 520000 * 1000)
     assert t.loc["water", "region"] == 3
     assert t.loc["water", "ex_nutrient_n_eq_ha_yr"] == pytest.approx(250.0)
+
+
+# ------------------------------------------------------------ the group's mistakes
+def _read_error(tmp_path, text):
+    from workbench.errors import InputError
+    from workbench.io import read_sites
+    p = tmp_path / "sites.toml"
+    p.write_text(text, encoding="utf-8")
+    with pytest.raises(InputError) as exc:
+        read_sites(p)
+    msg = str(exc.value)
+    assert msg.startswith(f"{p}, line "), msg
+    return msg
+
+
+def test_receptor_named_twice_is_one_located_error(tmp_path):
+    """receptors = ["moorland", "water", "moorland"] was accepted: one moorland total
+    then gave four rows of exceedance.csv."""
+    msg = _read_error(tmp_path, OWN.replace('["moorland", "water", "grass"]',
+                                            '["moorland", "water", "moorland"]'))
+    assert "line 13, column 'receptors': receptor named twice in receptors: got 'moorland'" \
+        in msg
+    assert 'expected each surface once (receptors = ["moorland", "water"])' in msg
