@@ -149,3 +149,114 @@ def test_receptor_named_twice_is_one_located_error(tmp_path):
     assert "line 13, column 'receptors': receptor named twice in receptors: got 'moorland'" \
         in msg
     assert 'expected each surface once (receptors = ["moorland", "water"])' in msg
+
+
+def test_forgotten_acidity_key_is_one_located_hint(tmp_path):
+    """The lake's table without cl_min_n (a missing "column"): no message at all before,
+    only "no complete acidity function" in exceedance.csv after a whole run."""
+    from workbench.io import read_sites
+    own = OWN.replace("[site.critical_loads]  ", "[site.critical_loads.conifer_forest]")
+    p = tmp_path / "sites.toml"
+    p.write_text(own.replace("cl_min_n = 100.0\n", ""), encoding="utf-8")
+    notes = [n for n in read_sites(p).notes if "critical load" in n]
+    assert len(notes) == 1, notes
+    assert "sites.toml, line 25, column 'cl_max_s': doubtful critical load function in " \
+        "[site.critical_loads.water]: cl_max_s and cl_max_n without cl_min_n: the acidity " \
+        "exceedance is not computed" in notes[0]
+    assert "expected all three of cl_max_s, cl_min_n, cl_max_n, or none of them" in notes[0]
+    # a heathland with no acidity key at all, and the forest's complete function: no hint
+    p.write_text(own, encoding="utf-8")
+    assert not [n for n in read_sites(p).notes if "critical load" in n]
+    # beside a site table, the lake takes the forest's cl_min_n = 350 (700 - 350 is
+    # below 400: the mass-balance hint), and the hint now says where 350 came from
+    p.write_text(OWN.replace("cl_min_n = 100.0\n", ""), encoding="utf-8")
+    notes = [n for n in read_sites(p).notes if "critical load" in n]
+    assert len(notes) == 1 and "(cl_min_n from [site.critical_loads])" in notes[0], notes
+
+
+# ------------------------------------------------------- loads given in other units
+#: Two more receptors of the group, as given to it: a broadleaf stand in kg S and kg N
+#: per ha and yr, a wetland in meq/m2/yr (invented values).
+OTHER_UNITS = OWN.replace('["moorland", "water", "grass"]',
+                          '["moorland", "water", "grass", "deciduous_forest", "wetland"]') + """
+[site.critical_loads.deciduous_forest]
+unit = "kg/ha/yr"              # kg S for cl_max_s, kg N for the others
+cl_max_s = 15.0
+cl_min_n = 5.0
+cl_max_n = 40.0
+cl_nut_n = 15.0
+
+[site.critical_loads.wetland]
+unit = "meq/m2/yr"
+cl_max_s = 80.0
+cl_min_n = 30.0
+cl_max_n = 140.0
+cl_nut_n = 50.0
+"""
+#: eq per kg: 2 eq per mol S, 1 per mol N; molar masses 32.06 and 14.007 g/mol (IUPAC
+#: abridged standard atomic weights, from memory); 1 meq/m2 = 1e-3 eq / 1e-4 ha = 10 eq/ha.
+EQ_PER_KG_S, EQ_PER_KG_N = 2000 / 32.06, 1000 / 14.007
+
+
+def test_tables_in_kg_and_meq_per_m2_are_converted_once(tmp_path):
+    """Before, the only unit was eq/ha/yr: the kg table gave four "unit slip?" hints and
+    was used as 15, 5, 40, 15 eq/ha/yr; the meq/m2 one hinted cl_min_n alone and was
+    used 10 times too small."""
+    from workbench.analysis.exceedance import exceedance_from_totals
+    from workbench.io import read_sites
+    p = tmp_path / "sites.toml"
+    p.write_text(OTHER_UNITS, encoding="utf-8")
+    cat = read_sites(p)
+    assert not [n for n in cat.notes if "critical load" in n], cat.notes
+    site = cat["hollin"]
+    kg = site.critical_loads_for("deciduous_forest")
+    assert kg["cl_max_s"] == pytest.approx(15 * EQ_PER_KG_S, rel=1e-4)      # 935.7
+    assert kg["cl_min_n"] == pytest.approx(5 * EQ_PER_KG_N, rel=1e-4)       # 357.0
+    assert kg["cl_max_n"] == pytest.approx(40 * EQ_PER_KG_N, rel=1e-4)      # 2855.7
+    assert kg["cl_nut_n"] == pytest.approx(15 * EQ_PER_KG_N, rel=1e-4)      # 1070.9
+    assert site.critical_loads_for("wetland") == pytest.approx(
+        {"cl_max_s": 800.0, "cl_min_n": 300.0, "cl_max_n": 1400.0, "cl_nut_n": 500.0})
+    # exceedance on the converted function, by the closed form of region 3 (S = 600,
+    # N = 1300 lies just above the sloping part): k = (cs N + dN S - cs c1) / (cs^2 + dN^2)
+    t = exceedance_from_totals(_totals([("deciduous_forest", 600.0, 1300.0),
+                                        ("wetland", 600.0, 1300.0)]), cat).set_index("receptor")
+    cs, c0, c1 = 15 * EQ_PER_KG_S, 5 * EQ_PER_KG_N, 40 * EQ_PER_KG_N
+    d = c1 - c0
+    k = (cs * 1300 + d * 600 - cs * c1) / (cs ** 2 + d ** 2)
+    assert t.loc["deciduous_forest", "region"] == 3
+    assert t.loc["deciduous_forest", "ex_acidity_eq_ha_yr"] == pytest.approx(k * (cs + d),
+                                                                             rel=1e-3)  # 21.0
+    # the wetland's function (800, 300, 1400), dN = 1100: 1100 x 600 + 800 x 1300 =
+    # 1.70e6 above 800 x 1400 = 1.12e6, neither corner's normal: region 3 again
+    k = (800 * 1300 + 1100 * 600 - 800 * 1400) / (800 ** 2 + 1100 ** 2)
+    assert t.loc["wetland", "ex_acidity_eq_ha_yr"] == pytest.approx(k * 1900)
+    assert t.loc["wetland", "ex_nutrient_n_eq_ha_yr"] == pytest.approx(800.0)
+
+
+def test_unknown_unit_and_a_unit_in_the_value_are_located(tmp_path):
+    from workbench.errors import InputError
+    from workbench.io import read_sites
+    msg = _read_error(tmp_path, OTHER_UNITS.replace('unit = "meq/m2/yr"', 'unit = "meq/m2"'))
+    assert "line 37, column 'unit': unknown unit of critical loads: got 'meq/m2'" in msg
+    assert 'expected one of "eq/ha/yr", "keq/ha/yr", "meq/m2/yr", "kg/ha/yr"' in msg
+    # a value typed with its unit names the unit key as the way out
+    p = tmp_path / "sites.toml"
+    p.write_text(OTHER_UNITS.replace("cl_max_s = 80.0", 'cl_max_s = "80 meq/m2/yr"'),
+                 encoding="utf-8")
+    with pytest.raises(InputError) as exc:
+        read_sites(p)
+    assert 'unit = "kg/ha/yr" (or "meq/m2/yr", "keq/ha/yr")' in str(exc.value)
+
+
+def test_slips_by_16_and_by_62_are_noted(tmp_path):
+    """A kg S value typed where eq is wanted is 62.4 times too small (eq per kg S); g S
+    typed as eq is 16.03 times too large (16.03 g S per eq).  CLmaxS = 15000 (g S, for
+    936 eq) lies inside the plausible range, and the function hint catches it (CLmaxN -
+    CLminN = 1750 below CLmaxS); 15 (kg S) the range hint."""
+    from workbench.io import read_sites
+    p = tmp_path / "sites.toml"
+    for value, words in (("15000.0", "cl_max_n - cl_min_n = 1750 is below cl_max_s = 15000"),
+                         ("15.0", "in kg S/ha/yr (1 kg S = 62.4 eq) it is 935.7 eq/ha/yr")):
+        p.write_text(OWN.replace("cl_max_s = 1200.0", f"cl_max_s = {value}"), encoding="utf-8")
+        notes = [n for n in read_sites(p).notes if "critical load" in n]
+        assert len(notes) == 1 and words in notes[0], notes

@@ -70,3 +70,21 @@ def test_receptor_with_a_nutrient_n_load_only(mere_app):
         in app.exceedance_words
     assert "ends the nutrient-N exceedance" in app.statement
     assert any(t.name.startswith("nutrient-N critical load (600") for t in app.fig.data)
+
+
+def test_network_table_carries_the_exceedance_note(analysis_scenario):
+    """The network overview's exceedance of mere's span (N partial: no NO2) showed a bare
+    number or "–" with the status "flagged"; the note of exceedance.csv now stands
+    beside it ("lower bounds" or "not determined")."""
+    from workbench.ui.apps_analysis import network_analysis_table
+    from workbench.ui.session import Session
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        session = Session.open(analysis_scenario)
+        results = {"mere": session.run(session.baseline, "mere", *session.years, "year")}
+        row = network_analysis_table(results, session.study.catalogue()).iloc[0]
+    assert row["exceedance_status"] == "flagged"
+    note = row["exceedance_note"]
+    assert "N total partial (without NO2)" in note, note
+    assert ("exceedances are lower bounds (deposition partial)" in note
+            or "not determined (0 on the partial deposition)" in note), note

@@ -380,8 +380,10 @@ def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":
     DataFrame
         site, receptor; ``S_trend`` and ``N_trend`` (Sen slope of the annual totals
         [kg ha-1 yr-1 per yr], with p and "not valid" when fewer than the minimum of
-        complete years); the span's ``ex_acidity_eq_ha_yr``, ``ex_nutrient_n_eq_ha_yr``
-        and ``exceedance_status``.
+        complete years); the span's ``ex_acidity_eq_ha_yr``, ``ex_nutrient_n_eq_ha_yr``,
+        ``exceedance_status`` and ``exceedance_note`` (the note of ``exceedance.csv``:
+        an empty exceedance on a partial deposition is "not determined", a positive one
+        a lower bound; the table showed "–" and a bare number there).
     """
     import pandas as pd
 
@@ -418,10 +420,10 @@ def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":
             e = ex.iloc[0]
             row.update(ex_acidity_eq_ha_yr=e["ex_acidity_eq_ha_yr"],
                        ex_nutrient_n_eq_ha_yr=e["ex_nutrient_n_eq_ha_yr"],
-                       exceedance_status=e["status"])
+                       exceedance_status=e["status"], exceedance_note=e["note"])
         else:
             row.update(ex_acidity_eq_ha_yr=np.nan, ex_nutrient_n_eq_ha_yr=np.nan,
-                       exceedance_status="no critical loads")
+                       exceedance_status="no critical loads", exceedance_note="")
         rows.append(row)
     return pd.DataFrame(rows)
 
