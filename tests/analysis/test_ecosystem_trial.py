@@ -260,3 +260,19 @@ def test_slips_by_16_and_by_62_are_noted(tmp_path):
         p.write_text(OWN.replace("cl_max_s = 1200.0", f"cl_max_s = {value}"), encoding="utf-8")
         notes = [n for n in read_sites(p).notes if "critical load" in n]
         assert len(notes) == 1 and words in notes[0], notes
+
+
+def test_critical_loads_in_a_scenario_point_to_sites_toml(tmp_path):
+    """A group putting its receptor's loads in the scenario, under a mistyped site id:
+    the error had no line and listed the override keys alone."""
+    from workbench.errors import WorkbenchError
+    from workbench.scenario import load_scenario
+    (tmp_path / "sites.toml").write_text(OWN, encoding="utf-8")
+    s = tmp_path / "scenario.toml"
+    s.write_text('[inputs]\nsites = "sites.toml"\n\n[sites.holin.critical_loads.moorland]\n'
+                 "cl_nut_n = 600.0\n", encoding="utf-8")
+    with pytest.raises(WorkbenchError) as exc:
+        load_scenario(s)
+    msg = str(exc.value)
+    assert "line 4, column 'sites.holin.critical_loads': unknown key" in msg, msg
+    assert "critical loads are set in the site catalogue only" in msg
