@@ -276,3 +276,15 @@ def test_critical_loads_in_a_scenario_point_to_sites_toml(tmp_path):
     msg = str(exc.value)
     assert "line 4, column 'sites.holin.critical_loads': unknown key" in msg, msg
     assert "critical loads are set in the site catalogue only" in msg
+
+
+def test_impossible_function_across_units_says_both(tmp_path):
+    """CLmaxN of 4 kg N/ha/yr (285.6 eq) under the site's CLminN of 350 eq/ha/yr: one
+    located error whose numbers can be compared (hand: 4 x 1000 / 14.007 = 285.6)."""
+    text = OTHER_UNITS.replace("cl_max_n = 40.0", "cl_max_n = 4.0").replace(
+        "cl_min_n = 5.0\n", "")
+    msg = _read_error(tmp_path, text)
+    assert "line 32, column 'cl_max_n': impossible critical load function in " \
+        "[site.critical_loads.deciduous_forest]: cl_max_n below cl_min_n: got '4.0', " \
+        "expected cl_max_n >= cl_min_n = 350 eq/ha/yr (cl_max_n = 4 kg/ha/yr is 285.6 " \
+        "eq/ha/yr)" in msg, msg

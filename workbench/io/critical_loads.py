@@ -219,6 +219,9 @@ def check_critical_loads(t, surfaces, err, table_err, notes, site_id):
             problem = f"impossible critical load function in {where}: cl_max_n below cl_min_n"
             expected = f"cl_max_n >= cl_min_n = {merged['cl_min_n']:g} eq/ha/yr"
             at = r if "cl_max_n" in (per_receptor[r] if r else cl) else None
+            if units[at] != "eq/ha/yr":        # the value as written is in another unit
+                expected += (f" (cl_max_n = {given[at]['cl_max_n']:g} {units[at]} is "
+                             f"{merged['cl_max_n']:.4g} eq/ha/yr)")
             raise locate(at)(problem, "cl_max_n", given[at]["cl_max_n"], expected)
         own = per_receptor[r] if r else cl
         for key, v in own.items():
