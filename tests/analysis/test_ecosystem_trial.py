@@ -288,3 +288,39 @@ def test_impossible_function_across_units_says_both(tmp_path):
         "[site.critical_loads.deciduous_forest]: cl_max_n below cl_min_n: got '4.0', " \
         "expected cl_max_n >= cl_min_n = 350 eq/ha/yr (cl_max_n = 4 kg/ha/yr is 285.6 " \
         "eq/ha/yr)" in msg, msg
+
+
+# ------------------------------------------------------------ probability by hand
+def _draws(s, n):
+    import xarray as xr
+    dims = ("draw", "site", "receptor", "period")
+    return xr.Dataset({"s_dep_eq_ha_yr": (dims, np.reshape(s, (-1, 1, 1, 1))),
+                       "n_dep_eq_ha_yr": (dims, np.reshape(n, (-1, 1, 1, 1)))},
+                      coords={"site": ["hollin"], "receptor": ["grass"], "period": ["2021"]})
+
+
+def test_probability_is_the_share_of_draws_exceeding_by_hand():
+    """Five draws against (1000, 400, 1600) and CLnutN 300, all N below CLminN so the
+    acidity exceedance is S - 1000 (region 1): S = 900, 1000 (on the function: not
+    exceeding), 1000.001, 1100, 1200 -> 3 of 5 exceed; N = 100, 200, 300 (equal: not
+    exceeding), 350, 399 -> 2 of 5 exceed nutrient N (hand-counted).  On a partial
+    deposition a share of 0 is not determined and a positive one stays (a lower bound)."""
+    import pandas as pd
+
+    from workbench.analysis.exceedance import exceedance_probability
+    table = pd.DataFrame([{"site": "hollin", "receptor": "grass", "period": "2021",
+                           "cl_max_s_eq_ha_yr": 1000.0, "cl_min_n_eq_ha_yr": 400.0,
+                           "cl_max_n_eq_ha_yr": 1600.0, "cl_nut_n_eq_ha_yr": 300.0}])
+    s = np.array([900.0, 1000.0, 1000.001, 1100.0, 1200.0])
+    n = np.array([100.0, 200.0, 300.0, 350.0, 399.0])
+    r = exceedance_probability(table, _draws(s, n)).iloc[0]
+    assert r["p_exceed_acidity"] == 3 / 5 and r["p_exceed_nutrient_n"] == 2 / 5
+    # the median exceedance is the middle draw's, 1000.001 - 1000 (numpy's linear
+    # quantile of 0, 0, 0.001, 100, 200)
+    assert r["ex_acidity_eq_ha_yr_p50"] == pytest.approx(0.001, abs=1e-9)
+    r = exceedance_probability(table, _draws(s, n), [True]).iloc[0]
+    assert r["p_exceed_acidity"] == 3 / 5                      # at least 0.6
+    r = exceedance_probability(table, _draws(s / 2, n / 2), [True]).iloc[0]
+    assert np.isnan(r["p_exceed_acidity"]) and np.isnan(r["p_exceed_nutrient_n"])
+    r = exceedance_probability(table, _draws(s / 2, n / 2), [False]).iloc[0]
+    assert r["p_exceed_acidity"] == 0.0 and r["p_exceed_nutrient_n"] == 0.0
