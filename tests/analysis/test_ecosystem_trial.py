@@ -22,6 +22,28 @@ def _ex(s, n):
                                     LOADS["cl_max_n"]).exceedance)
 
 
+#: Degenerate functions, hand-worked (S, N, CLmaxS, CLminN, CLmaxN) -> (Ex, S red., N red.):
+#: with CLmaxS = 0 and CLminN = CLmaxN = 300 only S = 0, N <= 300 is not exceeded; with
+#: every load 0 any deposition is the exceedance; with CLminN = CLmaxN = 0 the function
+#: is the S axis up to CLmaxS (the definition of the manual, from memory).
+DEGENERATE = [
+    ((100.0, 200.0, 0.0, 300.0, 300.0), (100.0, 100.0, 0.0)),
+    ((0.0, 400.0, 0.0, 300.0, 300.0), (100.0, 0.0, 100.0)),
+    ((50.0, 400.0, 0.0, 300.0, 300.0), (150.0, 50.0, 100.0)),
+    ((0.0, 300.0, 0.0, 300.0, 300.0), (0.0, 0.0, 0.0)),
+    ((100.0, 200.0, 0.0, 0.0, 0.0), (300.0, 100.0, 200.0)),
+    ((500.0, 700.0, 1000.0, 0.0, 0.0), (700.0, 0.0, 700.0)),
+    ((1500.0, 0.0, 1000.0, 0.0, 0.0), (500.0, 500.0, 0.0)),
+]
+
+
+@pytest.mark.parametrize("args, want", DEGENERATE)
+def test_degenerate_functions_hand_worked(args, want):
+    r = acidity_exceedance(*args)
+    got = (float(r.exceedance), float(r.s_reduction), float(r.n_reduction))
+    assert got == pytest.approx(want, abs=1e-9)
+
+
 def test_equal_cuts_hand_worked_on_the_sloping_constraint():
     """(S, N) = (1500, 700), every group cut alike: S(t) = 1500 (1 - t) <= 1000 needs
     t >= 1/3, the sloping part 2.5e6 (1 - t) <= 1.6e6 needs t >= 0.36 (the larger);
