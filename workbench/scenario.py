@@ -147,7 +147,7 @@ def _line_of(text_lines, section, key=None):
     sec_pat = re.compile(rf"^\s*\[\s*{re.escape(section)}\s*\]")
     start = next((i for i, ln in enumerate(text_lines) if sec_pat.match(ln)), None)
     if key is not None:   # a table option written as its own [section.key] table
-        sub = re.compile(rf"^\s*\[\s*{re.escape(section)}\.{re.escape(key)}\s*\]")
+        sub = re.compile(rf"^\s*\[\s*{re.escape(section)}\.{re.escape(key)}\s*[\].]")
         found = next((i for i, ln in enumerate(text_lines) if sub.match(ln)), None)
         if found is not None:
             return found + 1
@@ -359,10 +359,14 @@ def validate(raw: dict, path=None, text: str = "", require_inputs: bool = True) 
                                 expected=f"a [sites.{sid}] table of overrides")
         for key in table:
             if key not in SITE_OVERRIDES:
+                where = ("; critical loads are set in the site catalogue only, in the "
+                         f"site's [site.critical_loads] tables (sites.toml)"
+                         if key == "critical_loads" else "")
                 raise ScenarioError("unknown key", file=path,
                                     line=_line_of(lines, f"sites.{sid}", key),
                                     column=f"sites.{sid}.{key}", expected="one of "
-                                    + ", ".join(SITE_OVERRIDES) + suggest(key, SITE_OVERRIDES))
+                                    + ", ".join(SITE_OVERRIDES) + suggest(key, SITE_OVERRIDES)
+                                    + where)
     data["sites"] = copy.deepcopy(site_over)
     _check_grid(data["grid"], raw.get("grid"), path, lines)
     if data["inputs"]["sites"] is None and raw.get("grid") is None:

@@ -219,6 +219,12 @@ SITE_CASES = {
                        "without quotes, in the unit the key names"),
     "receptor_not_a_class": (('receptors = ["conifer_forest"]', 'receptors = ["forest"]'),
                              "line 12, column 'receptors': unknown land-use class: got 'forest'"),
+    # accepted before: each exceedance.csv row of the receptor came four times
+    "receptor_named_twice": (('receptors = ["conifer_forest"]',
+                              'receptors = ["conifer_forest", "conifer_forest"]'),
+                             "line 12, column 'receptors': receptor named twice in receptors: "
+                             "got 'conifer_forest', expected each surface once (receptors = "
+                             '["conifer_forest"])'),
 }
 
 

@@ -346,6 +346,33 @@ NO_CRITICAL_LOADS = ("no critical loads for this receptor in sites.toml (neither
                      "no exceedance")
 
 
+def borrowed_note(site, receptor) -> str:
+    """Which of a receptor's critical loads come from the site's ``[site.critical_loads]``
+    table (given for the site's own land use), or ``""``.
+
+    A receptor without a table of its own takes all the site's loads; one whose own
+    table lacks a key takes that key from the site's table (a heathland given only
+    ``cl_nut_n`` got the forest soil's acidity function, and nothing said so).
+
+    Parameters
+    ----------
+    site : workbench.io.sites.Site
+    receptor : str
+        One of the site's surfaces.
+    """
+    if receptor == site.land_use or not site.critical_loads:
+        return ""
+    own = site.receptor_critical_loads.get(receptor)
+    if own is None:
+        return "the site's critical loads, given for " + site.land_use
+    taken = [k for k in ACIDITY_KEYS + (NUTRIENT_KEY,) if k in site.critical_loads
+             and k not in own]
+    if not taken:
+        return ""
+    return (f"{', '.join(taken)} from the site's critical loads, given for {site.land_use} "
+            f"(not in [site.critical_loads.{receptor}])")
+
+
 def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss") -> pd.DataFrame:
     """The rows of ``exceedance.csv`` from annual S and N totals and the critical loads.
 
@@ -382,9 +409,7 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
         for s in catalogue for r in s.surfaces if s.critical_loads_for(r)],
         columns=["site", "receptor", *ACIDITY_KEYS, NUTRIENT_KEY])
     borrowed = pd.DataFrame([
-        {"site": s.id, "receptor": r,
-         "_borrowed": "the site's critical loads, given for " + s.land_use
-         if r != s.land_use and r not in s.receptor_critical_loads else ""}
+        {"site": s.id, "receptor": r, "_borrowed": borrowed_note(s, r)}
         for s in catalogue for r in s.surfaces], columns=["site", "receptor", "_borrowed"])
     t = t.merge(loads.assign(_has_loads=True), on=["site", "receptor"], how="left").merge(
         borrowed, on=["site", "receptor"], how="left")

@@ -200,8 +200,24 @@ def path_table(parts, cuts, loads, mode="air_and_wet", steps=PATH_STEPS) -> pd.D
     return frame
 
 
+#: Below this many percent a cut is taken as whole when it is rounded up (floating-point
+#: noise of t x cut, e.g. 25.000000000000004 %) [%].
+PERCENT_NOISE = 1e-9
+
+
+def percent_up(fraction) -> int:
+    """A needed fraction [1] as whole percent [%], rounded up: cutting the stated percent
+    ends the exceedance (rounded to the nearest, 17.4 % read "17 %", and a cut of 17 %
+    left an exceedance).
+
+    >>> percent_up(0.174), percent_up(0.25), percent_up(0.003)
+    (18, 25, 1)
+    """
+    return int(np.ceil(100.0 * float(fraction) - PERCENT_NOISE))
+
+
 def _cuts_text(cuts, t) -> str:
-    parts = [f"{GROUP_TEXT[g]} by {100 * t * float(cuts.get(g, 0.0)):.0f} %"
+    parts = [f"{GROUP_TEXT[g]} by {percent_up(t * float(cuts.get(g, 0.0)))} %"
              for g in GROUPS if float(cuts.get(g, 0.0)) > 0]
     return ", ".join(parts) if parts else "nothing"
 

@@ -1,6 +1,7 @@
 """The critical loads of a site (``[site.critical_loads]`` of ``sites.toml``).
 
-Values are in eq ha-1 yr-1.  Errors for what cannot be computed with (an unknown key, a
+Values are in eq ha-1 yr-1, or in the unit a table declares (``unit = "kg/ha/yr"``,
+``"meq/m2/yr"``, ``"keq/ha/yr"``), converted here once.  Errors for what cannot be computed with (an unknown key, a
 value that is not a finite number >= 0, CLmaxN below CLminN, a table for a surface the
 site does not have); located hints (``notes``) for what is possible but doubtful: a
 value that looks typed in another unit (kg N or S, keq, meq m-2) and a critical load
@@ -22,6 +23,30 @@ ELEMENT_OF = {"cl_max_s": "S", "cl_min_n": "N", "cl_max_n": "N", "cl_nut_n": "N"
 #: practice, from memory).  A value > 0 below the first or above the second bound is
 #: noted as a possible unit slip; a hint, not an error [eq ha-1 yr-1].
 PLAUSIBLE_EQ_HA_YR = (50.0, 20000.0)
+
+
+#: The units a critical-load table may declare with ``unit = "..."`` (default
+#: ``eq/ha/yr``): kg/ha/yr is kg of the key's element (S for cl_max_s, N for the others).
+CRITICAL_LOAD_UNITS = ("eq/ha/yr", "keq/ha/yr", "meq/m2/yr", "kg/ha/yr")
+
+
+def unit_factor(unit: str, key: str) -> float:
+    """Factor from `unit` to eq ha-1 yr-1 for the load `key` [eq ha-1 yr-1 per unit].
+
+    The per-area and prefix factors come from pint (eq counted as mol: a factor of
+    amounts); kg/ha/yr uses :func:`eq_per_kg` of the key's element.
+
+    >>> unit_factor("meq/m2/yr", "cl_nut_n"), unit_factor("keq/ha/yr", "cl_max_s")
+    (10.0, 1000.0)
+    >>> round(unit_factor("kg/ha/yr", "cl_max_s"), 1), round(unit_factor("kg/ha/yr", "cl_nut_n"), 1)
+    (62.4, 71.4)
+    """
+    if unit == "kg/ha/yr":
+        return eq_per_kg(ELEMENT_OF[key])
+    from ..units import ureg
+    amount = {"eq/ha/yr": "mol/hectare", "keq/ha/yr": "kmol/hectare",
+              "meq/m2/yr": "mmol/m**2"}[unit]
+    return round(float(ureg.Quantity(1.0, amount).to("mol/hectare").magnitude), 9)
 
 
 def eq_per_kg(element: str) -> float:
@@ -59,7 +84,9 @@ def _doubtful_value(key, v, where):
     side = f"below {lo:g}" if v < lo else f"above {hi:g}"
     readings = "; ".join(f"in {u} it is {eq:.4g} eq/ha/yr" for u, eq in _unit_readings(key, v))
     return (f"doubtful critical load {key} = {v:g} in {where}: {side} eq/ha/yr, a unit slip?",
-            f"eq/ha/yr, commonly hundreds to a few thousand; if the value was {readings}")
+            f"eq/ha/yr, commonly hundreds to a few thousand; if the value was {readings} "
+            '(a table in another unit says so once: unit = "kg/ha/yr", "meq/m2/yr" or '
+            '"keq/ha/yr")')
 
 
 _NUMBER = re.compile(rf"^\s*([-+]?{NUMBER_TEXT})\s*(.*?)\s*$")
@@ -78,6 +105,8 @@ def _bad_value(key, v):
                 expected += (f"; from kg {el}/ha/yr multiply by {eq_per_kg(el):.1f} "
                              f"({float(m.group(1)):g} kg {el} = "
                              f"{float(m.group(1)) * eq_per_kg(el):.4g} eq)")
+            expected += ('; or write the numbers as given and the table\'s unit once: '
+                         'unit = "kg/ha/yr" (or "meq/m2/yr", "keq/ha/yr")')
             return f"written with a unit ({unit!r})", expected
         return "text, not a number", "a number without quotes, in eq/ha/yr"
     if isinstance(v, bool) or not isinstance(v, (int, float)):
@@ -93,7 +122,15 @@ def _bad_value(key, v):
 def _function_notes(merged):
     """(problem, key, expected) hints on a whole critical load function of acidity."""
     out = []
-    s, n0, n1 = (merged.get(k) for k in ("cl_max_s", "cl_min_n", "cl_max_n"))
+    keys = ("cl_max_s", "cl_min_n", "cl_max_n")
+    s, n0, n1 = (merged.get(k) for k in keys)
+    given = [k for k in keys if k in merged]
+    if len(given) == 2:     # a forgotten key: said only in exceedance.csv before (one key
+        #                     alone, e.g. a sulfur-only CLmaxS, may be meant)
+        lacking = [k for k in keys if k not in merged]
+        out.append((f"{' and '.join(given)} without {' and '.join(lacking)}: the acidity "
+                    "exceedance is not computed",
+                    given[0], "all three of cl_max_s, cl_min_n, cl_max_n, or none of them"))
     if s is None or n0 is None or n1 is None:
         return out
     if s == 0 and n1 > n0:
@@ -139,12 +176,16 @@ def check_critical_loads(t, surfaces, err, table_err, notes, site_id):
         cl_max_n below cl_min_n.
     """
     cl = dict(t.get("critical_loads", {}))
-    per_receptor = {r: cl.pop(r) for r in list(cl) if isinstance(cl[r], dict)}
+    per_receptor = {r: dict(cl.pop(r)) for r in list(cl) if isinstance(cl[r], dict)}
+    units = {None: _table_unit(cl.pop("unit", "eq/ha/yr"),
+                               lambda p, v, e: err(p, "unit", v, e))}
     for r, table in per_receptor.items():
         if r not in surfaces:
             raise table_err("critical loads for a receptor the site does not have", r,
                             "critical_loads", r, "one of the site's surfaces: "
                             + ", ".join(surfaces) + suggest(r, surfaces))
+        units[r] = _table_unit(table.pop("unit", "eq/ha/yr"),
+                               lambda p, v, e, r=r: table_err(p, r, "unit", v, e))
         for key, v in table.items():
             if key not in CRITICAL_LOAD_KEYS:
                 raise table_err(f"unknown critical-load key in [site.critical_loads.{r}]", r, key,
@@ -161,6 +202,10 @@ def check_critical_loads(t, surfaces, err, table_err, notes, site_id):
         bad = _bad_value(key, v)
         if bad:
             raise err(f"bad critical load: {bad[0]}", key, v, bad[1])
+    given = {r: dict(tb) for r, tb in [(None, cl), *per_receptor.items()]}   # as written
+    cl = {k: float(v) * unit_factor(units[None], k) for k, v in cl.items()}
+    per_receptor = {r: {k: float(v) * unit_factor(units[r], k) for k, v in tb.items()}
+                    for r, tb in per_receptor.items()}
 
     def locate(r):
         if r:
@@ -173,18 +218,41 @@ def check_critical_loads(t, surfaces, err, table_err, notes, site_id):
         if merged.get("cl_max_n", math.inf) < merged.get("cl_min_n", -math.inf):
             problem = f"impossible critical load function in {where}: cl_max_n below cl_min_n"
             expected = f"cl_max_n >= cl_min_n = {merged['cl_min_n']:g} eq/ha/yr"
-            raise locate(r)(problem, "cl_max_n", merged["cl_max_n"], expected)
+            at = r if "cl_max_n" in (per_receptor[r] if r else cl) else None
+            if units[at] != "eq/ha/yr":        # the value as written is in another unit
+                expected += (f" (cl_max_n = {given[at]['cl_max_n']:g} {units[at]} is "
+                             f"{merged['cl_max_n']:.4g} eq/ha/yr)")
+            raise locate(at)(problem, "cl_max_n", given[at]["cl_max_n"], expected)
         own = per_receptor[r] if r else cl
         for key, v in own.items():
-            doubt = _doubtful_value(key, v, where)
+            doubt = _doubtful_value(key, v, where if units[r] == "eq/ha/yr" else
+                                    f"{where} ({given[r][key]:g} {units[r]})")
             if doubt:
                 notes.append(f"site {site_id!r}: " + str(locate(r)(
-                    doubt[0], key, v, doubt[1])))
+                    doubt[0], key, given[r][key], doubt[1])))
         for problem, key, expected in _function_notes(merged):
             if r and not any(k in own for k in ("cl_max_s", "cl_min_n", "cl_max_n")):
                 continue               # the site's own function, noted once above
-            notes.append(f"site {site_id!r}: " + str(locate(r if key in own or not r else None)(
+            taken = [k for k in ("cl_max_s", "cl_min_n", "cl_max_n")
+                     if r and k in cl and k not in own]
+            if taken:           # the receptor's function is partly the site's
+                problem += f" ({', '.join(taken)} from [site.critical_loads])"
+            at = r if key in own or not r else None
+            notes.append(f"site {site_id!r}: " + str(locate(at)(
                 f"doubtful critical load function in {where}: {problem}", key,
-                merged[key], expected)))
-    return ({k: float(v) for k, v in cl.items()},
-            {r: {k: float(v) for k, v in tb.items()} for r, tb in per_receptor.items()})
+                given[at][key], expected)))
+    return cl, per_receptor
+
+
+def _table_unit(unit, fail):
+    """The declared unit of a critical-load table, or `fail` (problem, value, expected)."""
+    if unit in CRITICAL_LOAD_UNITS:
+        return unit
+    return _raise(fail("unknown unit of critical loads", unit,
+                       "one of " + ", ".join(f'"{u}"' for u in CRITICAL_LOAD_UNITS)
+                       + " (kg of S for cl_max_s, of N for the others)"
+                       + (suggest(unit, CRITICAL_LOAD_UNITS) if isinstance(unit, str) else "")))
+
+
+def _raise(exc):
+    raise exc

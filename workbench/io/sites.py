@@ -395,6 +395,11 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
         if not isinstance(r, str) or r not in LAND_USE:
             raise err("unknown land-use class", "receptors", r,
                       "one of " + ", ".join(LAND_USE) + suggest(r, LAND_USE))
+    twice = [r for i, r in enumerate(receptors) if r in receptors[:i]]
+    if twice:          # each row of exceedance.csv came once per naming, squared
+        raise err("receptor named twice in receptors", "receptors", twice[0],
+                  "each surface once (receptors = "
+                  + str(list(dict.fromkeys(receptors))).replace("'", '"') + ")")
     collector = t.get("collector", "wet_only")
     if collector not in COLLECTORS:
         raise err("unknown collector", "collector", collector, "'wet_only' or 'bulk'"

@@ -25,6 +25,13 @@ from .summaries import RANKABLE, total_rates
 #: (the factors are the defaults of :class:`~workbench.analysis.uncertainty.UncertaintyOptions`).
 OFFERED_DRAWS = 200
 
+#: The keys of the critical load function of acidity.
+ACIDITY = ("cl_max_s", "cl_min_n", "cl_max_n")
+#: What the explorer says of a critical load the receptor does not have.
+NO_LOAD_WORDS = {
+    "acidity": "not computed (no complete critical load function of acidity in sites.toml)",
+    "nutrient-N": "not computed (no nutrient-N critical load in sites.toml)"}
+
 #: Cuts when the explorer opens [1].
 FIRST_CUTS = {"S": 0.5, "NOx": 0.5, "NHx": 0.5}
 #: Columns of the path shown under the figure.
@@ -203,9 +210,11 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
             self.progress.done("ready")
         return self._draws
 
-    def ranges(self, loads, sel) -> dict | None:
+    def ranges(self, loads, sel, lower=False) -> dict | None:
         """The exceedance.csv-like row of the shown site-year with the 5-95 % range of S and
-        N deposition and the probability of exceedance, or None when the range is off."""
+        N deposition and the probability of exceedance, or None when the range is off.
+        `lower`: the deposition is partial (a lower bound), so a probability of 0 is not
+        determined, as in exceedance.csv (it read "probability ... 0.00" here)."""
         if not self.range_w.value:
             return None
         import pandas as pd
@@ -213,7 +222,8 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         from ..analysis.exceedance import ACIDITY_KEYS, NUTRIENT_KEY, exceedance_probability
         row = {**sel, **{f"{k}_eq_ha_yr": float(loads.get(k, np.nan))
                          for k in ACIDITY_KEYS + (NUTRIENT_KEY,)}}
-        return exceedance_probability(pd.DataFrame([row]), self.total_draws()).iloc[0].to_dict()
+        return exceedance_probability(pd.DataFrame([row]), self.total_draws(),
+                                      [bool(lower)]).iloc[0].to_dict()
 
     def loads(self) -> dict:
         site = self.session.study.catalogue()[self.site_w.value]
@@ -228,30 +238,39 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         cuts = {g: w.value / 100.0 for g, w in self.cut_w.items()}
         mode = self.mode_w.value
         where = " · ".join(sel.values())
-        if not all(k in loads for k in ("cl_max_s", "cl_min_n", "cl_max_n")):
-            self.statement = f"{where}: no complete critical load function in sites.toml."
+        acid_loads = all(k in loads for k in ACIDITY)
+        if not acid_loads and "cl_nut_n" not in loads:
+            self.statement = f"{where}: no critical loads in sites.toml."
             self.path = None
             refresh(self.fig, clf_spec(loads, title=where))
             self.text_w.value = f"<p>{html.escape(self.statement)}</p>"
             self.table_w.value = ""
             return self.statement
-        self.path = path_table(parts, cuts, {"cl_nut_n": np.nan, **loads}, mode)
+        # a receptor with a nutrient-N load only (a heathland) or an acidity function
+        # only (a lake) gets what it has; the other is said to be missing (a heathland
+        # read "no complete critical load function" and lost its nutrient-N exceedance)
+        full = {**dict.fromkeys(ACIDITY + ("cl_nut_n",), np.nan), **loads}
+        self.path = path_table(parts, cuts, full, mode)
         first = self.path.iloc[0]
         ex = acidity_exceedance(first["s_dep_eq_ha_yr"], first["n_dep_eq_ha_yr"],
-                                loads["cl_max_s"], loads["cl_min_n"], loads["cl_max_n"])
-        nut = nutrient_n_exceedance(first["n_dep_eq_ha_yr"], loads.get("cl_nut_n", np.nan))
-        row = self.ranges(loads, sel)
-        self.range_text = "" if row is None else _range_text(row, self.unc_options.draws)
-        self.statement = (plain_statement(parts, cuts, {"cl_nut_n": np.nan, **loads},
-                                          mode, where) + self.range_text)
+                                *(full[k] for k in ACIDITY))
+        nut = nutrient_n_exceedance(first["n_dep_eq_ha_yr"], full["cl_nut_n"])
         self.status_note = status_note(self.result.years, *sel.values())
         lower = lower_bound(self.result.years, *sel.values())
+        row = self.ranges(loads, sel, lower)
+        self.range_text = ("" if row is None else
+                           _range_text(row, self.unc_options.draws, lower,
+                                       {"acidity": acid_loads, "nutrient-N": "cl_nut_n" in loads}))
+        self.statement = plain_statement(parts, cuts, full, mode, where) + self.range_text
         if lower:
             self.statement = partial_statement(self.statement)
         self.exceedance_words = (
-            "acidity exceedance " + exceedance_words(float(ex.exceedance), lower,
-                                                     REGIONS[int(ex.region)])
-            + "; nutrient-N exceedance " + exceedance_words(float(nut), lower))
+            "acidity exceedance " + (exceedance_words(float(ex.exceedance), lower,
+                                                      REGIONS[int(ex.region)])
+                                     if acid_loads else NO_LOAD_WORDS["acidity"])
+            + "; nutrient-N exceedance " + (exceedance_words(float(nut), lower)
+                                            if "cl_nut_n" in loads
+                                            else NO_LOAD_WORDS["nutrient-N"]))
         self.text_w.value = (
             (f"<p style='color:#D55E00'>{html.escape(self.status_note)}</p>"
              if self.status_note else "") +
@@ -314,18 +333,35 @@ def status_note(years_ds, site, receptor, period) -> str:
             "a flagged one has components flagged (site budget explorer, budget.csv notes).")
 
 
-def _range_text(row: dict, draws: int) -> str:
+def _range_text(row: dict, draws: int, lower=False, has=None) -> str:
     """The 5-95 % range and the probabilities of exceedance of a row of
-    :func:`workbench.analysis.exceedance.exceedance_probability`, in words."""
+    :func:`workbench.analysis.exceedance.exceedance_probability`, in words.
+
+    `lower`: the deposition is partial, so a probability left empty there is "not
+    determined" (no draw exceeds the lower bound); `has`: {"acidity": bool,
+    "nutrient-N": bool}, whether the receptor has that critical load (a probability
+    of a load it lacks is not said).
+
+    >>> _range_text({"p_exceed_acidity": np.nan, "p_exceed_nutrient_n": 0.25}, 10, True)
+    ' 5-95 % range of 10 Monte Carlo draws: S n/a, N n/a eq/ha/yr; probability of acidity exceedance not determined (no draw exceeds the partial deposition, a lower bound); probability of nutrient-N exceedance at least 0.25.'
+    """
     def pair(name):
         lo, hi = row.get(f"{name}_p05", np.nan), row.get(f"{name}_p95", np.nan)
         return f"{lo:.0f}-{hi:.0f}" if np.isfinite([lo, hi]).all() else "n/a"
+    has = has or {}
     out = (f" 5-95 % range of {draws} Monte Carlo draws: S {pair('s_dep_eq_ha_yr')}, "
            f"N {pair('n_dep_eq_ha_yr')} eq/ha/yr;")
     for name, what in (("p_exceed_acidity", "acidity"), ("p_exceed_nutrient_n", "nutrient-N")):
+        if not has.get(what, True):
+            continue
         p = row.get(name, np.nan)
-        out += (f" probability of {what} exceedance {p:.2f};" if np.isfinite(p)
-                else f" probability of {what} exceedance not known;")
+        if np.isfinite(p):
+            out += f" probability of {what} exceedance {'at least ' if lower else ''}{p:.2f};"
+        elif lower:
+            out += (f" probability of {what} exceedance not determined (no draw exceeds the "
+                    "partial deposition, a lower bound);")
+        else:
+            out += f" probability of {what} exceedance not known;"
     return out.rstrip(";") + "."
 
 
@@ -352,8 +388,10 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
     DataFrame
         site, receptor; ``S_trend`` and ``N_trend`` (Sen slope of the annual totals
         [unit per yr], with p and "not valid" when fewer than the minimum of complete
-        years); the span's ``ex_acidity_eq_ha_yr``, ``ex_nutrient_n_eq_ha_yr`` and
-        ``exceedance_status``.
+        years); the span's ``ex_acidity_eq_ha_yr``, ``ex_nutrient_n_eq_ha_yr``,
+        ``exceedance_status`` and ``exceedance_note`` (the note of ``exceedance.csv``:
+        an empty exceedance on a partial deposition is "not determined", a positive one
+        a lower bound; the table showed "–" and a bare number there).
     """
     import pandas as pd
 
@@ -450,10 +488,11 @@ def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
             e = ex.iloc[0]
             row.update(ex_acidity_eq_ha_yr=e["ex_acidity_eq_ha_yr"],
                        ex_nutrient_n_eq_ha_yr=e["ex_nutrient_n_eq_ha_yr"],
-                       exceedance_status=e["status"] + _lacking(res.table, own))
+                       exceedance_status=e["status"] + _lacking(res.table, own),
+                       exceedance_note=e["note"])
         else:
             row.update(ex_acidity_eq_ha_yr=np.nan, ex_nutrient_n_eq_ha_yr=np.nan,
-                       exceedance_status="no critical loads")
+                       exceedance_status="no critical loads", exceedance_note="")
         rows.append(row)
     return pd.DataFrame(rows)
 

@@ -224,7 +224,8 @@ class SensitivityExplorer(SavedText, widgets.VBox):
 ANALYSIS_HEADINGS = {"S_trend": "S trend", "N_trend": "N trend",
                      "ex_acidity_eq_ha_yr": "acidity exceedance",
                      "ex_nutrient_n_eq_ha_yr": "nutrient-N exceedance",
-                     "exceedance_status": "status of the totals"}
+                     "exceedance_status": "status of the totals",
+                     "exceedance_note": "exceedance note"}
 
 
 class NetworkOverview(SavedText, widgets.VBox):

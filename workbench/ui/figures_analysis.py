@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..analysis.whatif import percent_up
 from .figures import from_spec
 from .palette import ENVELOPE_FILL, OKABE_ITO, TEMPLATE
 
@@ -92,7 +93,7 @@ def clf_spec(loads: dict, s_dep=None, n_dep=None, path=None, title="", mode_text
             data.append({"type": "scatter", "x": [float(path["n_dep_eq_ha_yr"].iloc[i])],
                          "y": [float(path["s_dep_eq_ha_yr"].iloc[i])], "mode": "markers",
                          "marker": {"size": 12, "symbol": "star", "color": OKABE_ITO["vermillion"]},
-                         "name": f"exceedance ends ({100 * float(path['fraction'].iloc[i]):.0f} % "
+                         "name": f"exceedance ends ({percent_up(path['fraction'].iloc[i])} % "
                                  "of the cuts)"})
     if s_dep is not None and n_dep is not None and np.isfinite([_num(s_dep), _num(n_dep)]).all():
         point = {"type": "scatter", "x": [float(n_dep)], "y": [float(s_dep)], "mode": "markers",

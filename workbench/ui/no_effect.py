@@ -153,7 +153,8 @@ def cut_no_effect_text(group, parts, loads, cuts, mode="air_and_wet", missing=()
     if not float(cuts.get(group, 0.0)) > 0:
         return ""
     name = GROUP_TEXT[group]
-    loads = {"cl_nut_n": np.nan, **loads}
+    loads = {**dict.fromkeys(("cl_max_s", "cl_min_n", "cl_max_n", "cl_nut_n"), np.nan),
+             **loads}                   # a receptor may have one kind of load only
     without = {**cuts, group: 0.0}
     dep, dep0 = scaled(parts, cuts, mode), scaled(parts, without, mode)
     if np.allclose(dep, dep0, equal_nan=True):
