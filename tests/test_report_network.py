@@ -55,7 +55,7 @@ def test_network_report_opens_with_the_sites_and_their_rankings(network):
     table = text[text.index("The sites of the network"):text.index("Ranking of the sites")]
     for i in range(1, 11):
         assert f"<td>v{i:02d}</td>" in table
-    assert "partial (no NH3 NO2)" in table or "partial (no NO2 NH3)" in table
+    assert "partial (no NH3, NO2)" in table or "partial (no NO2, NH3)" in table
 
 
 def test_partial_totals_are_never_ranked_beside_complete_ones(network):

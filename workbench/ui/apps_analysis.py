@@ -421,11 +421,12 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
                 + ")")
         row.update(ex_acidity_eq_ha_yr=p["ex_acidity_eq_ha_yr"],
                    ex_nutrient_n_eq_ha_yr=p["ex_nutrient_n_eq_ha_yr"],
-                   exceedance_status=p["exceedance_status"])
+                   exceedance_status=p["exceedance_status"],
+                   exceedance_note=p["exceedance_note"])
         rows.append(row)
     return pd.DataFrame(rows, columns=["site", "receptor", "S_trend", "N_trend",
                                        "ex_acidity_eq_ha_yr", "ex_nutrient_n_eq_ha_yr",
-                                       "exceedance_status"])
+                                       "exceedance_status", "exceedance_note"])
 
 
 def trend_unit(element: str, unit: str) -> str:
@@ -460,7 +461,8 @@ def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
         yr], NaN without a slope), ``{el}_p``, ``{el}_valid``, ``{el}_n_years`` (NaN
         without a trend row); ``ex_acidity_eq_ha_yr``, ``ex_nutrient_n_eq_ha_yr``
         [eq ha-1 yr-1] and ``exceedance_status`` of the span (exceedance.csv's status,
-        with the components the S and N totals lack: ``flagged (N without NO2)``).
+        with the components the S and N totals lack: ``flagged (N without NO2)``) and
+        ``exceedance_note`` (its note in exceedance.csv).
     """
     import pandas as pd
 
