@@ -242,27 +242,38 @@ def changes_in(site, start, end) -> tuple:
 
 
 def surface_notes(catalogue, start, end) -> list[str]:
-    """Lines for a run from `start` to `end` that crosses a change of a site's surface or
-    collector: the engine uses the catalogue's one class in every year."""
+    """Lines for records from `start` to `end` that cross a change of a site's surface
+    or collector: the engine uses the catalogue's one class in every year."""
     out = []
     for site in catalogue:
         for ch in changes_in(site, start, end):
             if ch.what not in ENGINE_KINDS:
                 continue
+            y = ch.date.year
+            if ch.what == "land_use":
+                how = (f"for the years before {y} read the rows of receptor {ch.before!r}"
+                       + ("" if ch.before in site.surfaces else
+                          f" (add {ch.before!r} to the site's receptors)"))
+            else:
+                how = (f"the years before {y} need a run of their own ([period] end = "
+                       f"\"{y}-01-01\" and [sites.{site.id}] collector = {ch.before!r})")
             now = site.land_use if ch.what == "land_use" else site.collector
-            out.append(
-                f"site {site.id}: {ch.what} changed on {ch.date.isoformat()} ({ch.before} -> "
-                f"{ch.after}); this run computes every year with {ch.what} = {now!r}: the "
-                f"years before {ch.date.isoformat()} need a run of their own ([period] end = "
-                f"\"{ch.date.isoformat()}\" and [sites.{site.id}] {ch.what} = {ch.before!r}"
-                + (", or the class as a receptor" if ch.what == "land_use" else "")
-                + "; docs/data_formats.md, \"A long record\")")
+            out.append(f"site {site.id}: {ch.what} changed on {ch.date.isoformat()} "
+                       f"({ch.before} -> {ch.after}); this run computes every year with "
+                       f"{ch.what} = {now!r}: {how}; {y} holds both (docs/data_formats.md, "
+                       "\"A long record\")")
     return out
 
 
+#: Changes of how a sample is taken: one inside a sample's period is said.
+SAMPLE_KINDS = {"precipitation": ("location", "sampler", "collector"),
+                "air": ("location", "sampler")}
+
+
 def sample_notes(ds, catalogue, role, file_name) -> list[str]:
-    """Located lines for samples whose period holds a declared change of their site
-    (a sample is taken with one method at one place: a change belongs between samples).
+    """Located lines for samples that hold the whole day of a declared change of how
+    they are taken (:data:`SAMPLE_KINDS`): a sample is taken with one method at one
+    place, so such a change belongs between samples.
 
     Parameters
     ----------
@@ -279,14 +290,17 @@ def sample_notes(ds, catalogue, role, file_name) -> list[str]:
     out = []
     for s in catalogue:
         for ch in getattr(s, "changes", ()):
-            t = np.datetime64(ch.date.isoformat(), "ns")
-            inside = np.flatnonzero((site == s.id) & (start < t) & (end > t))
+            if ch.what not in SAMPLE_KINDS[role]:
+                continue
+            d0 = np.datetime64(ch.date.isoformat(), "ns")     # the change's day, whole,
+            d1 = d0 + np.timedelta64(1, "D")                  # inside the sample
+            inside = np.flatnonzero((site == s.id) & (start < d0) & (end > d1))
             if inside.size:
                 lines = ", ".join(str(int(v)) for v in line[inside][:3])
                 more = f" and {inside.size - 3} more" if inside.size > 3 else ""
                 out.append(f"{file_name}, line {lines}{more}: {role} sample of site {s.id} "
                            f"from {str(start[inside[0]])[:16]} to {str(end[inside[0]])[:16]} "
-                           f"holds the {ch.what} change of {ch.date.isoformat()} (sites.toml): "
-                           "a sample is taken with one method at one place; give the change "
-                           "at the start of a sample (read as it is)")
+                           f"holds the {ch.what} change of {ch.date.isoformat()} (sites.toml):"
+                           " a sample is taken with one method at one place; date the change "
+                           "on the day one sample ends and the next starts (read as it is)")
     return out
