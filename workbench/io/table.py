@@ -212,6 +212,8 @@ class RawTable:
     end_of_day: list = field(default_factory=list)
     #: Row indices (into :attr:`lines`) holding a 24:00 label in any time column.
     end_of_day_rows: list = field(default_factory=list)
+    #: Notes of species given in two units, joined (:mod:`.unitswitch`).
+    unit_switch_notes: list = field(default_factory=list)
 
     # ------------------------------------------------------------------ reading
     @classmethod
@@ -271,6 +273,8 @@ class RawTable:
         if df.empty:
             raise InputError("no data rows", file=path, line=n_meta + 1,
                              expected="at least one data row below the header")
+        from .unitswitch import merge_unit_switches
+        df, switches = merge_unit_switches(df, path, n_meta + 1, lines)
         headers, raw, names = {}, {}, []
         for col in df.columns:
             h = parse_header(col)
@@ -289,7 +293,9 @@ class RawTable:
                                  "lines)", file=path, line=int(lines[r]), column=raw[df.columns[c]],
                                  value=df.iat[r, c].split("\n")[0][:40],
                                  expected='quotes in pairs ("...") around a cell')
-        return cls(path, meta, df, lines, headers, raw)
+        tab = cls(path, meta, df, lines, headers, raw)
+        tab.unit_switch_notes = switches
+        return tab
 
     # ------------------------------------------------------------------ helpers
     def error(self, problem, *, row=None, column=None, value=None, expected=None):
