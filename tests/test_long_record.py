@@ -225,3 +225,14 @@ def test_trend_without_changes_keeps_its_note():
                          "flux_kg_ha_yr": np.linspace(5, 3, years.size), "status": "complete"})
     t = trend_table(rows)
     assert (t["method_changes"] == "").all() and t["note"].iloc[0] == "values: all"
+
+
+def test_network_overview_trend_says_it_crosses_a_change(long_run, tmp_path):
+    """The network overview's trend cell of a site with a declared change says so."""
+    from workbench.io.sites import read_sites
+    from workbench.ui.apps_analysis import network_analysis_table
+    (tmp_path / "sites.toml").write_text(SITES_WITH_HISTORY)
+    cat = read_sites(tmp_path / "sites.toml")
+    t = network_analysis_table({"haugh": long_run["result"]}, cat)
+    assert "crosses a change of method: 2008-01-01 units" in t["S_trend"].iloc[0]
+    assert "land_use conifer_forest -> grass" in t["S_trend"].iloc[0]

@@ -350,7 +350,7 @@ def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":
     import pandas as pd
 
     from ..analysis.exceedance import exceedance_table
-    from ..analysis.trends import trend_table
+    from ..analysis.trends import change_notes, trend_table
     rows = []
     for site, res in results.items():
         own = catalogue[site].land_use
@@ -358,7 +358,7 @@ def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":
         years = res.table[(res.table["period"].astype(str) != "span")
                           & (res.table["receptor"] == own) & (res.table["pathway"] == "total")
                           & (res.table["species"] == "all")]
-        tr = trend_table(years)
+        tr = trend_table(years, changes=change_notes([catalogue[site]]))
         tr = tr[tr["values"] == "all"] if len(tr) else tr
         for el in ("S", "N"):
             t = tr[tr["element"] == el] if len(tr) else tr
@@ -373,6 +373,8 @@ def network_analysis_table(results: dict, catalogue) -> "pd.DataFrame":
                         f"{r['sen_slope_per_yr']:+.3g} kg {el}/ha/yr per yr (p {r['p_value']:.2g}"
                         + ("" if r["valid"] else
                            f"; indicative only: {years_text}, a valid trend needs {MIN_YEARS}")
+                        + (f"; crosses a change of method: {r['method_changes']}"
+                           if r.get("method_changes") else "")
                         + ")")
             else:
                 row[f"{el}_trend"] = "–"
