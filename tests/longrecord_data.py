@@ -116,6 +116,8 @@ def precipitation_frame(rng, split_units=True) -> pd.DataFrame:
     common = rng.lognormal(0.0, 0.35, len(f))         # one factor per sample: the ions
     vals = {ion: base * common * rng.lognormal(0.0, 0.03, len(f))   # keep their balance
             for ion, base in ueq.items()}
+    low = rng.random(len(f)) < 0.03                  # a few samples below detection
+    vals["SO4"] = np.where(low, 0.2, vals["SO4"])    # (0.2 ueq/L: below both limits)
     for ion, v in vals.items():
         mm, z = _MG[ion]
         mg = v / z * mm / 1000.0

@@ -188,3 +188,16 @@ longitude = 5.0
     moved.write_text(sites.read_text().replace("2007-12-20", "2007-12-18"))
     inp = load_inputs(moved, precipitation=p)
     assert not [n for n in inp.ledger.notes if "location change" in n]
+
+
+def test_a_bad_cell_after_the_switch_names_its_own_column(tmp_path):
+    """'<DL' written in the ueq/L column: the message names that column and line (it
+    named the mg/L column the values were joined into)."""
+    cat = read_sites(_catalogue(tmp_path, ""))
+    p = tmp_path / "p.csv"
+    p.write_text(PRECIP.replace("9.0,,<0.5", "9.0,,<DL"))
+    with pytest.raises(InputError) as exc:
+        read_precipitation(p, cat)
+    msg = str(exc.value)
+    assert msg.startswith(f"{p}, line 5, column 'SO4 [ueq/L]': text in a numeric column"), msg
+    assert "'<DL'" in msg and "write '<limit'" in msg

@@ -42,6 +42,9 @@ def merge_unit_switches(df: pd.DataFrame, path, header_line: int, lines) -> tupl
         Without the later columns, whose numbers are in the first column's unit.
     notes : list of str
         One line per joined column.
+    origin : dict
+        First column -> list of (later column, bool mask of its rows): where a cell of
+        the joined column was written, for the located messages.
 
     Raises
     ------
@@ -50,7 +53,7 @@ def merge_unit_switches(df: pd.DataFrame, path, header_line: int, lines) -> tupl
         a row with values in both units, or units of two kinds (a mass per volume and a
         mixing ratio: no constant factor).
     """
-    first, notes, drop = {}, [], []
+    first, notes, drop, origin = {}, [], [], {}
     cols = list(df.columns)
     for col in cols:
         h = parse_header(col)
@@ -99,10 +102,11 @@ def merge_unit_switches(df: pd.DataFrame, path, header_line: int, lines) -> tupl
         merged[fb] = conv.astype(object)
         df[a] = merged
         drop.append(col)
+        origin.setdefault(a, []).append((col, fb))
         la, lb = lines[fa], lines[fb]
         notes.append(f"{path.name}: {h.species} in {ha.unit} ({a!r}, "
                      f"{_line_span(la) if la.size else 'no line'}) and in {h.unit} ({col!r}, "
                      f"{_line_span(lb) if lb.size else 'no line'}): read as one column, "
                      f"{h.unit} x {factor:.6g} = {ha.unit}; declare the laboratory's change "
                      "in sites.toml ([[site.change]] what = \"units\") so that trends name it")
-    return (df.drop(columns=drop) if drop else df), notes
+    return (df.drop(columns=drop) if drop else df), notes, origin
