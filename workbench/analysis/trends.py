@@ -381,7 +381,7 @@ def _row(key, series, variant, years, r, min_years, median, excluded, dl, vmin=n
                           _flags(r.n, r.var_s, vmin, gaps)),
             "values": variant, "s": r.s, "var_s": r.var_s, "z": r.z,
             "slope_low_per_yr": r.slope_low, "slope_high_per_yr": r.slope_high,
-            "intercept": r.intercept, "unit": "kg ha-1 yr-1"}
+            "intercept": r.intercept, "unit": "kg ha-1 yr-1", "method_changes": ""}
 
 
 def _series_index(frame):
@@ -459,7 +459,8 @@ def _table_rows(keys, series, stats_by_variant, min_years, excluded, dl, gaps=No
                  "note": np.asarray(notes, dtype=object), "values": variant, "s": st["s"],
                  "var_s": st["var_s"], "z": st["z"], "slope_low_per_yr": st["slope_low"],
                  "slope_high_per_yr": st["slope_high"], "intercept": st["intercept"],
-                 "unit": np.full(n.size, "kg ha-1 yr-1", dtype=object)})
+                 "unit": np.full(n.size, "kg ha-1 yr-1", dtype=object),
+                 "method_changes": np.full(n.size, "", dtype=object)})
     return cols
 
 
