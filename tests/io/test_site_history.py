@@ -184,6 +184,7 @@ longitude = 5.0
     inp = load_inputs(sites, precipitation=p)
     notes = [n for n in inp.ledger.notes if "location change" in n]
     assert len(notes) == 1 and notes[0].startswith("p.csv, line 3: precipitation sample")
+    assert "change 2007-12-20 location to 52 N 5 E" in inp.describe()      # check shows it
     moved = tmp_path / "s2.toml"                 # dated on a changeover day: no note
     moved.write_text(sites.read_text().replace("2007-12-20", "2007-12-18"))
     inp = load_inputs(moved, precipitation=p)

@@ -82,6 +82,8 @@ class Inputs:
             out.append(f"  {s.id:<10} {s.name} ({s.land_use}; lat {s.latitude:.2f}, "
                        f"lon {s.longitude:.2f}, {s.elevation_m:.0f} m; collector {s.collector}; "
                        f"further receptors: {rec})")
+            for ch in getattr(s, "changes", ()):        # the declared history
+                out.append(f"             change {ch.describe()}")
         for role, ds, dim in (("precipitation", self.precipitation, "sample"),
                               ("air", self.air, "period")):
             if ds is None:
