@@ -154,8 +154,9 @@ def test_a_row_in_both_units_is_located(tmp_path):
     with pytest.raises(InputError) as exc:
         read_precipitation(p, cat)
     msg = str(exc.value)
-    assert msg.startswith(f"{p}, line 5, column 'SO4 [ueq/L]': values in two units on one row")
-    assert "one unit per row" in msg
+    assert msg.startswith(f"{p}, line 5, column 'SO4 [ueq/L]': two columns for one species")
+    assert "one per unit with each row filling one: here both hold a value (0.3 and <0.5)" \
+        in msg, msg
 
 
 def test_a_depth_in_two_units_is_still_a_duplicate(tmp_path):

@@ -73,11 +73,11 @@ def merge_unit_switches(df: pd.DataFrame, path, header_line: int, lines) -> tupl
         fb = df[col].to_numpy(dtype=object) != ""
         both = np.flatnonzero(fa & fb)
         if both.size:
-            raise InputError("values in two units on one row", file=path,
+            raise InputError("two columns for one species", file=path,
                              line=int(lines[both[0]]), column=col,
-                             value=f"{a} = {df[a].iat[both[0]]}, {col} = {df[col].iat[both[0]]}",
-                             expected=f"one unit per row: {a!r} or {col!r} filled, the other "
-                             "empty (a laboratory that changed its unit mid-record)")
+                             expected=f"one column for {h.species} (already given as {a!r}), "
+                             f"or one per unit with each row filling one: here both hold a "
+                             f"value ({df[a].iat[both[0]]} and {df[col].iat[both[0]]})")
         try:
             xa, kind_a = to_amount(1.0, ha.unit, ha.species, ha.basis)
             xb, kind_b = to_amount(1.0, h.unit, h.species, h.basis)
