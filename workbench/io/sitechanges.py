@@ -163,7 +163,7 @@ def check_changes(t: dict, err, notes: list, label: str) -> tuple:
             for key in ("from", "to"):
                 if key not in c:
                     raise err(f"a {what} change without '{key}'", j, key, None,
-                              f"from and to, each one of " + ", ".join(classes))
+                              "from and to, each one of " + ", ".join(classes))
                 if c[key] not in classes:
                     raise err(f"unknown {what.replace('_', ' ')} class", j, key, c[key],
                               "one of " + ", ".join(classes) + suggest(str(c[key]), classes))
