@@ -92,6 +92,8 @@ note = "moved 300 m"
     ('\n[[site.change]]\ndate = 2014-04-01\nwhat = "location"\nlatitude = 52.1\n'
      'longitude = 5.0\n', "the last location change does not end at the site's coordinates",
      "latitude"),
+    ('\n[[site.change]]\ndate = 2011-01-01\nwhat = "collector"\nfrom = "wet_only"\n'
+     'to = "bulk"\n', "the last collector change does not end at the site's collector", "to"),
 ])
 def test_a_wrong_history_is_one_located_message(tmp_path, changes, problem, key):
     msg, lines = _error(tmp_path, changes)
@@ -203,3 +205,23 @@ def test_a_bad_cell_after_the_switch_names_its_own_column(tmp_path):
     msg = str(exc.value)
     assert msg.startswith(f"{p}, line 5, column 'SO4 [ueq/L]': text in a numeric column"), msg
     assert "'<DL'" in msg and "write '<limit'" in msg
+
+
+def test_surface_and_collector_changes_tell_the_run_what_it_computes(tmp_path):
+    """The engine uses the catalogue's one land use and collector in every year: a
+    change inside the records says so and how to get the years before."""
+    from workbench.io.sitechanges import surface_notes
+    cat = read_sites(_catalogue(tmp_path, FELLED + """
+[[site.change]]
+date = 2011-01-01
+what = "collector"
+from = "bulk"
+to = "wet_only"
+"""))
+    notes = surface_notes(cat, np.datetime64("2005-01-01"), np.datetime64("2020-01-01"))
+    assert len(notes) == 2
+    land, coll = sorted(notes, key=lambda n: "collector" in n)
+    assert "land_use changed on 2014-04-01 (conifer_forest -> grass)" in land
+    assert "add 'conifer_forest' to the site's receptors" in land     # alpha: grass only
+    assert "[sites.alpha] collector = 'bulk'" in coll and 'end = "2011-01-01"' in coll
+    assert surface_notes(cat, np.datetime64("2015-01-01"), np.datetime64("2020-01-01")) == []
