@@ -135,7 +135,7 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES, network=False)
     each for the first `max_sites` sites (trends.csv has every component, the monthly
     tests and the notes)."""
     import plotly.io as pio
-    from .analysis.trends import MIN_YEARS, trend_table
+    from .analysis.trends import MIN_YEARS, change_notes, trend_table
     from .tables import budget_table
     from .ui.figures_analysis import trend_figure
     t = budget_table(result.years, lean=True)
@@ -147,7 +147,7 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES, network=False)
            f"<p>A trend is valid with at least {MIN_YEARS} complete years; the band is the "
            "95 % confidence interval of the slope. trends.csv has every component, the "
            "seasonal Kendall test on monthly values and the notes.</p>"]
-    tr = trend_table(tot)
+    tr = trend_table(tot, changes=change_notes(cat, study.inputs))
     if tr.empty:
         return out + ["<p>No annual totals.</p>"], first
     tr = tr[tr["values"] == "all"]

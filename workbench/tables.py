@@ -139,6 +139,44 @@ def _sorted(frame: pd.DataFrame) -> pd.DataFrame:
     return frame.take(idx).reset_index(drop=True)
 
 
+def fullest_years(ok, missing) -> np.ndarray:
+    """The passing years whose total holds every component any passing year holds.
+
+    A long record may have years with wet deposition only (air measured from a later
+    year on): such a year's total passes (``partial``) but is a smaller sum, and a mean
+    over it and the years with a dry part would mix two sums.  A passing year is kept
+    when its missing components are those missing in every passing year.
+
+    Parameters
+    ----------
+    ok : array of bool, shape (..., year)
+        The years that pass.
+    missing : array of str, shape (..., year)
+        Space-separated missing components of each year's total ("" or NaN: none).
+
+    Returns
+    -------
+    ndarray of bool, shape (..., year)
+    """
+    ok = np.asarray(ok, bool)
+    miss = np.asarray(missing, dtype=object)
+    sets = np.empty(miss.shape, dtype=object)
+    sets.reshape(-1)[:] = [frozenset(str(m).split()) if isinstance(m, str) else frozenset()
+                           for m in miss.reshape(-1)]
+    out = ok.copy()
+    flat_ok, flat_sets, flat_out = (a.reshape(-1, a.shape[-1]) for a in (ok, sets, out))
+    for r in range(flat_ok.shape[0]):          # per series (site, receptor): a few years
+        used = [flat_sets[r, y] for y in np.flatnonzero(flat_ok[r])]
+        if used:
+            common = frozenset.intersection(*used)
+            flat_out[r] = flat_ok[r] & np.array([st == common for st in flat_sets[r]])
+    return flat_out.reshape(ok.shape)
+
+
+#: Note of a span row whose years left out hold fewer components (:func:`fullest_years`).
+FEWER_PARTS_NOTE = "years left out for a smaller sum (without {}): {}"
+
+
 def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     """The whole span: the mean of the years that pass completeness.
 
@@ -152,12 +190,34 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     those years, in component order), so that a ``partial`` span row says what it lacks,
     and the notes of those years with the years that carry each (``note``,
     :func:`_notes_by_year`), so that a ``flagged`` span row says why.
+    A passing year whose total lacks a component other passing years hold (a year of
+    wet deposition only, before the air was measured) is excluded
+    (:func:`fullest_years`) and the span row's ``note`` names those years first.
     """
     t = year_table.copy()
     t["year"] = t["period_start"].dt.year
     tot = t[(t["pathway"] == "total") & (t["species"] == "all")]
     passes = (tot["passes"].astype(bool) if "passes" in tot
               else ~tot["status"].isin(["flagged", "missing"]))
+    fewer = pd.Series("", index=tot.index, dtype=object)
+    if "missing_components" in tot and len(tot):
+        by3 = ["site", "receptor", "element"]
+        g = tot.assign(_p=passes.to_numpy()).groupby(by3, sort=False)
+        for _, idx in g.indices.items():        # per series: a few tens of years
+            rows = tot.iloc[idx]
+            keep = fullest_years(passes.iloc[idx].to_numpy(),
+                                 rows["missing_components"].to_numpy(dtype=object))
+            drop = passes.iloc[idx].to_numpy() & ~keep
+            if drop.any():
+                common = set.intersection(*[set(str(m).split()) if isinstance(m, str) else set()
+                                            for m in rows["missing_components"].to_numpy()[keep]]
+                                          ) if keep.any() else set()
+                lacks = sorted(set().union(*[set(str(m).split()) for m in
+                                             rows["missing_components"].to_numpy()[drop]])
+                               - common)
+                fewer.iloc[idx] = FEWER_PARTS_NOTE.format(
+                    " ".join(lacks), " ".join(str(y) for y in rows["year"].to_numpy()[drop]))
+            passes.iloc[idx] = keep
     ok = tot.assign(passes=passes)[["site", "receptor", "element", "year", "passes"]]
     t = t.drop(columns=["passes"], errors="ignore").merge(
         ok, on=["site", "receptor", "element", "year"], how="left")
@@ -186,6 +246,12 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
                                                                  False: "years_excluded"})
     agg = agg.merge(years.reset_index(), on=by, how="left")
     agg["years_excluded"] = agg["years_excluded"].astype(object).fillna("")
+    notes = tot.assign(_n=fewer)[["site", "receptor", "element", "_n"]]
+    notes = notes[notes["_n"] != ""].drop_duplicates(["site", "receptor", "element"])
+    if len(notes):
+        agg = agg.merge(notes, on=by, how="left")
+        agg["note"] = agg["_n"].astype(object).fillna("")
+        agg = agg.drop(columns="_n")
     agg["flux_kg_ha"] = agg["flux_kg_ha_yr"]
     agg["flux_eq_ha"] = agg["flux_eq_ha_yr"]
     agg["period"] = "span"
@@ -193,8 +259,13 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     for col in ("missing_components", "flagged_components"):
         agg[col] = _union_of_parts(used, keys, col, order).reindex(
             pd.MultiIndex.from_frame(agg[keys])).fillna("").to_numpy(dtype=object)
-    agg["note"] = _notes_by_year(used, keys).reindex(
+    yearly = _notes_by_year(used, keys).reindex(
         pd.MultiIndex.from_frame(agg[keys])).fillna("").to_numpy(dtype=object)
+    fewer_note = (agg["note"].fillna("").to_numpy(dtype=object) if "note" in agg
+                  else np.full(len(agg), "", dtype=object))
+    both = (fewer_note != "") & (yearly != "")
+    agg["note"] = np.where(both, fewer_note + "; " + yearly,
+                           np.where(fewer_note != "", fewer_note, yearly)).astype(object)
     cols = list(BUDGET_COLUMNS) + ["period", "years_used", "years_excluded",
                                    "missing_components", "flagged_components", "note"]
     return agg[cols]

@@ -17,6 +17,7 @@ from typing import NamedTuple
 
 import numpy as np
 
+from .trend_changes import CHANGE_NOTE, _change_columns, change_notes  # noqa: F401
 from .trends_batch import EXACT_MAX_N, exact_p  # noqa: F401  (the exact p of few values)
 
 #: Fewest complete years for a trend to be called valid.  The normal approximation of
@@ -312,7 +313,7 @@ def _row(key, series, variant, years, r, min_years, median, excluded, dl, vmin=n
                           _flags(r.n, r.var_s, vmin, gaps)),
             "values": variant, "s": r.s, "var_s": r.var_s, "z": r.z,
             "slope_low_per_yr": r.slope_low, "slope_high_per_yr": r.slope_high,
-            "intercept": r.intercept, "unit": "kg ha-1 yr-1"}
+            "intercept": r.intercept, "unit": "kg ha-1 yr-1", "method_changes": ""}
 
 
 def _series_index(frame):
@@ -390,7 +391,8 @@ def _table_rows(keys, series, stats_by_variant, min_years, excluded, dl, gaps=No
                  "note": np.asarray(notes, dtype=object), "values": variant, "s": st["s"],
                  "var_s": st["var_s"], "z": st["z"], "slope_low_per_yr": st["slope_low"],
                  "slope_high_per_yr": st["slope_high"], "intercept": st["intercept"],
-                 "unit": np.full(n.size, "kg ha-1 yr-1", dtype=object)})
+                 "unit": np.full(n.size, "kg ha-1 yr-1", dtype=object),
+                 "method_changes": np.full(n.size, "", dtype=object)})
     return cols
 
 
@@ -493,7 +495,7 @@ def _monthly_columns(month_rows, dl_notes, min_years, alpha):
 
 
 def trend_table(year_rows, month_rows=None, dl_notes=None, min_years=MIN_YEARS,
-                alpha=ALPHA):
+                alpha=ALPHA, changes=None):
     """``trends.csv``: a trend per site, receptor, element, pathway and species.
 
     Parameters
@@ -507,14 +509,17 @@ def trend_table(year_rows, month_rows=None, dl_notes=None, min_years=MIN_YEARS,
         :func:`detection_limit_notes`.
     min_years : int
         Fewest complete years of a valid trend (:data:`MIN_YEARS`).
+    changes : dict, optional
+        :func:`change_notes`: a row whose years cross a change of method names it in
+        ``method_changes`` and in its note.
 
     Returns
     -------
     DataFrame
         :data:`TREND_COLUMNS`, then ``values`` (``all`` or ``without_filled``), S,
-        Var(S), z, the slope's confidence interval, the intercept and the unit.  A year
-        enters when its status is complete (or filled, for ``all``); the note counts the
-        years left out by status.
+        Var(S), z, the slope's confidence interval, the intercept, the unit and
+        ``method_changes``.  A year enters when its status is complete (or filled, for
+        ``all``); the note counts the years left out by status.
     """
     import pandas as pd
     dl_notes = dl_notes or {}
@@ -527,5 +532,7 @@ def trend_table(year_rows, month_rows=None, dl_notes=None, min_years=MIN_YEARS,
         parts.append(pd.DataFrame(_monthly_columns(month_rows, dl_notes, min_years, alpha)))
     parts = [p for p in parts if len(p)]
     if not parts:
-        return pd.DataFrame(columns=list(TREND_COLUMNS))
-    return parts[0] if len(parts) == 1 else pd.concat(parts, ignore_index=True)
+        return pd.DataFrame(columns=list(TREND_COLUMNS) + ["method_changes"])
+    table = parts[0] if len(parts) == 1 else pd.concat(parts, ignore_index=True)
+    crossed, note = _change_columns(table, changes)
+    return table.assign(note=note, method_changes=crossed)

@@ -327,7 +327,9 @@ def _span_draws(ds, comp, tot):
 
     A year passes as in :func:`workbench.tables.span_table`: the budget's own
     ``total_passes`` (a total ``flagged`` only for kept flagged samples or a sulfate
-    fallback passes), else a total neither ``flagged`` nor ``missing``.
+    fallback passes), else a total neither ``flagged`` nor ``missing``; of those, the
+    years whose total holds every component the others hold
+    (:func:`workbench.tables.fullest_years`).
     """
     fac = ds["annual_factor"].values                             # (Y,)
     status = ds["total_status"].values                           # (R, Y, T) of one site
@@ -339,6 +341,9 @@ def _span_draws(ds, comp, tot):
         k = names.index(f"{e}_total")
         ok = (passes[..., k] if passes is not None
               else ~np.isin(status[..., k], ["flagged", "missing"]))   # (R, Y)
+        if "total_missing_components" in ds:       # years of a smaller sum left out
+            from ..tables import fullest_years
+            ok = fullest_years(ok, ds["total_missing_components"].values[..., k])
         out_c.append((e, ok))
     comp_y = comp * fac[None, None, :, None]
     with np.errstate(invalid="ignore"):

@@ -86,6 +86,8 @@ class Inputs:
             out.append(f"  {s.id:<10} {s.name} ({s.land_use}; lat {s.latitude:.2f}, "
                        f"lon {s.longitude:.2f}, {s.elevation_m:.0f} m; collector {s.collector}; "
                        f"further receptors: {rec})")
+            for ch in getattr(s, "changes", ()):        # the declared history
+                out.append(f"             change {ch.describe()}")
         for role, ds, dim in (("precipitation", self.precipitation, "sample"),
                               ("air", self.air, "period")):
             if ds is None:
@@ -214,6 +216,7 @@ def load_inputs(sites, precipitation=None, air=None, met=None, reference_state=N
     from .samplegaps import sampling_gap_notes      # weeks without samples, per sampler
     inp.ledger.notes.extend(sampling_gap_notes(inp.precipitation, "precipitation")
                             + sampling_gap_notes(inp.air, "air"))
+    inp.ledger.notes.extend(_history_notes(inp, cat))
     if inp.met is not None and inp.precipitation is not None:
         gc = _gauge_check(inp.met, inp.precipitation)
         inp.gauge_check = gc
@@ -247,3 +250,22 @@ def _gauge_check(met, samples):
     if not parts:
         return gauge_comparison(met.isel(site=slice(0, 0)).load(), samples)
     return pd.concat(parts).sort_index().reset_index(drop=True)
+
+
+def _history_notes(inp, catalogue) -> list[str]:
+    """Notes of the sites' declared changes (``[[site.change]]``) against the records:
+    samples that hold a change (located), and a surface or collector change inside the
+    records' span (the engine uses the catalogue's one class in every year)."""
+    from .sitechanges import sample_notes, surface_notes
+    if not any(getattr(s, "changes", ()) for s in catalogue):
+        return []
+    out, spans = [], []
+    for role in ("precipitation", "air"):
+        ds = getattr(inp, role)
+        if ds is None or not ds.sizes.get(next(iter(ds["site"].dims), ""), 0):
+            continue
+        out += sample_notes(ds, catalogue, role, inp.paths[role].name)
+        spans.append((ds["start"].values.min(), ds["end"].values.max()))
+    if spans:
+        out += surface_notes(catalogue, min(a for a, _ in spans), max(b for _, b in spans))
+    return out

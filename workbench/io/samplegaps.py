@@ -51,6 +51,68 @@ def interval_gaps(start, end, min_gap):
     return [(reach[:-1][i], s[1:][i]) for i in k]
 
 
+def _covered(gap, start, end) -> bool:
+    """Whether the intervals [start, end) cover all of `gap` but changeovers shorter than
+    :data:`MIN_GAP_DAYS`."""
+    g0, g1 = gap
+    inside = (end > g0) & (start < g1)
+    if not inside.any():
+        return False
+    s = np.maximum(start[inside], g0)
+    e = np.minimum(end[inside], g1)
+    hole = np.timedelta64(int(MIN_GAP_DAYS * 86400), "s")
+    return not interval_gaps(np.concatenate([[g0], s, [g1]]),
+                             np.concatenate([[g0], e, [g1]]), hole)
+
+
+def sampler_turns(ds) -> list:
+    """The turns of samplers at each site: where the sampler of the site's samples (in
+    time order) changes to one that was not running before.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        Samples or air periods with ``site``, ``start``, ``end`` and ``sampler_id``.
+
+    Returns
+    -------
+    list of (site, datetime64, str)
+        The site, the start of the new sampler's first sample [UTC] and
+        ``sampler W1 -> D1 (24 h samples, 168 h before)``.  Collocated samplers
+        (running at once) are not turns.
+    """
+    if ds is None or "sampler_id" not in ds or not ds.sizes.get(next(iter(ds["site"].dims), ""), 0):
+        return []
+    site = ds["site"].values.astype(str)
+    start, end = ds["start"].values, ds["end"].values
+    sampler = ds["sampler_id"].values.astype(str)
+    out = []
+    for s_id in dict.fromkeys(site):
+        at = np.flatnonzero(site == s_id)
+        at = at[np.argsort(start[at], kind="stable")]
+        names = sampler[at]
+        k = np.flatnonzero(names[1:] != names[:-1]) + 1
+        slack = np.timedelta64(int(MIN_GAP_DAYS * 86400), "s")
+        for r, i in enumerate(k):
+            old, new = names[i - 1], names[i]
+            j = k[r + 1] if r + 1 < k.size else names.size      # the new run: [i, j)
+            span0, span1 = start[at[i]], end[at[j - 1]]
+            before = at[:i][names[:i] == old]
+            after = at[j:][names[j:] == old]
+            if (end[before] > span0 + slack).any() or (start[after] < span1 - slack).any() \
+                    or j - i < 2:
+                continue                    # running at once (collocated), or one sample
+            new_rows = at[i:j]
+            still = names[:i] == old
+            h_new = np.median(end[new_rows] - start[new_rows]) / np.timedelta64(1, "h")
+            h_old = np.median(end[at[:i]][still] - start[at[:i]][still]) / np.timedelta64(1, "h")
+            what = f"sampler {old} -> {new}"
+            if abs(h_new - h_old) > 1:
+                what += f" ({h_new:g} h samples, {h_old:g} h before)"
+            out.append((s_id, start[at[i]], what))
+    return out
+
+
 def sampling_gap_notes(ds, role: str) -> list[str]:
     """Lines on the gaps of each sampler's record and on sites that start late or end
     early.
@@ -99,6 +161,9 @@ def sampling_gap_notes(ds, role: str) -> list[str]:
             length = np.median(end[m] - start[m])
             gaps = interval_gaps(start[m], end[m],
                                  max(length, np.timedelta64(int(MIN_GAP_DAYS * 86400), "s")))
+            other = at & ~m          # a gap the site's other samplers fill is a turn of
+            gaps = [g for g in gaps  # samplers (said by sampler_turns), not a gap
+                    if not _covered(g, start[other], end[other])]
             if not gaps:
                 continue
             secs = np.array([(g1 - g0) / np.timedelta64(1, "s") for g0, g1 in gaps])

@@ -383,7 +383,7 @@ def read_precipitation(path, catalogue, flag_map=None):
         dvars[f"{sp}_censored"] = ("sample", c[keep])
         dvars[f"{sp}_detection_limit"] = ("sample", dl[keep], {"units": "mol m-3"})
     ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path)})
-    ledger.notes.extend(_unit_slips(tab, ds, ion_cols))
+    ledger.notes.extend(tab.unit_switch_notes + _unit_slips(tab, ds, ion_cols))
     ledger.notes.extend(typo_notes(tab.path.name, sites[keep], samplers[keep], tab.lines[keep]))
     return ds, ledger
 
@@ -543,7 +543,7 @@ def read_air(path, catalogue, reference_state=None):
             dvars[f"{sp}_method"] = ("period", methods[sp][keep].astype(str))
     ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path),
                                   "reference_state": str(ref_text) if needs_ref else "none needed"})
-    ledger.notes.extend(_air_slips(tab, ds, cols))
+    ledger.notes.extend(tab.unit_switch_notes + _air_slips(tab, ds, cols))
     ledger.notes.extend(typo_notes(tab.path.name, sites[keep], samplers[keep], tab.lines[keep]))
     return ds, ledger
 

@@ -16,6 +16,7 @@ from ..errors import InputError, suggest, type_hint, type_words
 from ..landuse import LAND_USE
 
 from .critical_loads import CRITICAL_LOAD_KEYS, check_critical_loads  # noqa: F401
+from .sitechanges import change_key_line, check_changes
 from .tomlfile import read_toml
 
 #: key -> (type(s), required, description)
@@ -48,6 +49,8 @@ SITE_KEYS = {
                         "e.g. {pNO3 = 0.3}"),
     "ustar_transfer": (dict, False, "transfer of u* by the site's own surfaces, e.g. "
                        "{deciduous_forest = \"blending_height\"} (docs/methods_dry_particles.md)"),
+    "change": (list, False, "the site's history: [[site.change]] tables with date and what "
+               "(docs/data_formats.md, \"A long record\")"),
 }
 #: Transfers of u* a site's ``ustar_transfer`` table may name (DryOptions.ustar_transfer).
 USTAR_TRANSFERS = ("blending_height", "drag_law")
@@ -88,6 +91,9 @@ class Site:
     ustar_transfer: dict = field(default_factory=dict)
     #: receptor -> {critical-load key: value} from ``[site.critical_loads.<receptor>]``
     receptor_critical_loads: dict = field(default_factory=dict)
+    #: the declared history (``[[site.change]]``), :class:`.sitechanges.SiteChange` in
+    #: date order
+    changes: tuple = ()
 
     def critical_loads_for(self, receptor) -> dict:
         """Critical loads of a receptor [eq ha-1 yr-1]: the site's, with the receptor's
@@ -321,7 +327,14 @@ def read_sites(path) -> SiteCatalogue:
         def table_err(problem, receptor, key, value=None, expected=None, k=k):
             return InputError(problem, file=path, value=value, expected=expected, column=key,
                               line=_table_key_line(lines, starts, k, receptor, key))
-        sites.append(check_site(t, err, notes, f"{path.name}, site {sid!r}", table_err))
+        def change_err(problem, j, key, value=None, expected=None, k=k):
+            end = starts[k + 1] if k + 1 < len(starts) else len(lines)
+            return InputError(problem, file=path, value=value, expected=expected,
+                              column=f"change.{key}",
+                              line=change_key_line(lines, starts[k] if k < len(starts) else 0,
+                                                   end, j, key))
+        sites.append(check_site(t, err, notes, f"{path.name}, site {sid!r}", table_err,
+                                change_err))
         seen[sid] = k
     return SiteCatalogue(sites, path, notes)
 
@@ -337,7 +350,8 @@ def _type_check(t, err):
 
 
 
-def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
+def check_site(t: dict, err, notes: list, label: str, table_err=None,
+               change_err=None) -> Site:
     """Validate one site's keys (a ``[[site]]`` table, or one with scenario overrides).
 
     Parameters
@@ -356,6 +370,9 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
         located in a ``[site.critical_loads.<receptor>]`` table (default: `err`).
         Without it (the scenario's check of a catalogue site with its overrides, which
         cannot change critical loads) the critical-load hints are not noted again.
+    change_err : callable, optional
+        ``change_err(problem, j, key, value=None, expected=None)`` -> an error located at
+        `key` of the j-th ``[[site.change]]`` table (default: `err` at ``change``).
 
     Returns
     -------
@@ -450,6 +467,10 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
         if key in t and t[key] < 0:
             raise err("negative value", key, t[key], "a value >= 0")
     _geometry(t, err, notes, label)
+    if change_err is None:
+        def change_err(problem, j, key, value=None, expected=None):
+            return err(problem, "change", value, expected)
+    changes = check_changes(t, change_err, cl_notes, label)
     return Site(
         id=t["id"], name=t["name"], latitude=float(t["latitude"]),
         longitude=float(t["longitude"]), elevation_m=float(t["elevation_m"]),
@@ -465,7 +486,8 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None) -> Site:
         coast_distance_km=None if "coast_distance_km" not in t else float(t["coast_distance_km"]),
         coarse_fraction={k2: float(v) for k2, v in coarse.items()},
         receptor_critical_loads=per_receptor,
-        nh3_emission_potential=gamma, ustar_transfer={k2: str(v) for k2, v in transfer.items()})
+        nh3_emission_potential=gamma, ustar_transfer={k2: str(v) for k2, v in transfer.items()},
+        changes=changes)
 
 
 def _nh3_emission_potential(t, err, notes, label, receptors) -> dict:
@@ -587,4 +609,6 @@ def site_dict(site: Site) -> dict:
         out["nh3_emission_potential"] = dict(site.nh3_emission_potential)
     if site.ustar_transfer:
         out["ustar_transfer"] = dict(site.ustar_transfer)
+    if site.changes:
+        out["change"] = [c.as_dict() for c in site.changes]
     return out

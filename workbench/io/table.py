@@ -212,6 +212,11 @@ class RawTable:
     end_of_day: list = field(default_factory=list)
     #: Row indices (into :attr:`lines`) holding a 24:00 label in any time column.
     end_of_day_rows: list = field(default_factory=list)
+    #: Notes of species given in two units, joined (:mod:`.unitswitch`).
+    unit_switch_notes: list = field(default_factory=list)
+    #: column name -> [(raw later column, bool rows)] of a joined unit switch: a
+    #: message on such a row names the column the cell was written in.
+    switched: dict = field(default_factory=dict)
 
     # ------------------------------------------------------------------ reading
     @classmethod
@@ -271,6 +276,8 @@ class RawTable:
         if df.empty:
             raise InputError("no data rows", file=path, line=n_meta + 1,
                              expected="at least one data row below the header")
+        from .unitswitch import merge_unit_switches
+        df, switches, origin = merge_unit_switches(df, path, n_meta + 1, lines)
         headers, raw, names = {}, {}, []
         for col in df.columns:
             h = parse_header(col)
@@ -289,13 +296,19 @@ class RawTable:
                                  "lines)", file=path, line=int(lines[r]), column=raw[df.columns[c]],
                                  value=df.iat[r, c].split("\n")[0][:40],
                                  expected='quotes in pairs ("...") around a cell')
-        return cls(path, meta, df, lines, headers, raw)
+        tab = cls(path, meta, df, lines, headers, raw)
+        tab.unit_switch_notes = switches
+        tab.switched = {parse_header(a).name: v for a, v in origin.items()}
+        return tab
 
     # ------------------------------------------------------------------ helpers
     def error(self, problem, *, row=None, column=None, value=None, expected=None):
         """An InputError located at data row index `row` (0-based) and `column`."""
         line = int(self.lines[row]) if row is not None else None
         col = self.raw_headers.get(column, column) if column is not None else None
+        for later, rows in self.switched.get(column, ()):
+            if row is not None and rows[row]:
+                col = later                     # the cell was written in the later unit
         return InputError(problem, file=self.path, line=line, column=col, value=value,
                           expected=expected)
 

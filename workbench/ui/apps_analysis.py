@@ -418,6 +418,8 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
                 f"{slope * factor:+.3g} {trend_unit(el, unit)} per yr (p {p[f'{el}_p']:.2g}"
                 + ("" if p[f"{el}_valid"] else
                    f"; indicative only: {years_text}, a valid trend needs {MIN_YEARS}")
+                + (f"; crosses a change of method: {p[f'{el}_method_changes']}"
+                   if p.get(f"{el}_method_changes") else "")
                 + ")")
         row.update(ex_acidity_eq_ha_yr=p["ex_acidity_eq_ha_yr"],
                    ex_nutrient_n_eq_ha_yr=p["ex_nutrient_n_eq_ha_yr"],
@@ -459,7 +461,9 @@ def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
     DataFrame
         site, receptor; per element ``{el}_slope_kg_ha_yr`` (Sen slope [kg ha-1 yr-1 per
         yr], NaN without a slope), ``{el}_p``, ``{el}_valid``, ``{el}_n_years`` (NaN
-        without a trend row); ``ex_acidity_eq_ha_yr``, ``ex_nutrient_n_eq_ha_yr``
+        without a trend row), ``{el}_method_changes`` (the changes of method the trend's
+        years cross, trends.csv's ``method_changes``); ``ex_acidity_eq_ha_yr``,
+        ``ex_nutrient_n_eq_ha_yr``
         [eq ha-1 yr-1] and ``exceedance_status`` of the span (exceedance.csv's status,
         with the components the S and N totals lack: ``flagged (N without NO2)``) and
         ``exceedance_note`` (its note in exceedance.csv).
@@ -467,7 +471,7 @@ def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
     import pandas as pd
 
     from ..analysis.exceedance import NO_CRITICAL_LOADS, exceedance_table
-    from ..analysis.trends import trend_table
+    from ..analysis.trends import change_notes, trend_table
     rows = []
     for site, res in results.items():
         own = catalogue[site].land_use
@@ -475,7 +479,7 @@ def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
         years = res.table[(res.table["period"].astype(str) != "span")
                           & (res.table["receptor"] == own) & (res.table["pathway"] == "total")
                           & (res.table["species"] == "all")]
-        tr = trend_table(years)
+        tr = trend_table(years, changes=change_notes([catalogue[site]]))
         tr = tr[tr["values"] == "all"] if len(tr) else tr
         for el in ("S", "N"):
             t = tr[tr["element"] == el] if len(tr) else tr
@@ -484,6 +488,8 @@ def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
             row[f"{el}_p"] = float(r.get("p_value", np.nan))
             row[f"{el}_valid"] = bool(r.get("valid", False))
             row[f"{el}_n_years"] = float(r.get("n_years", np.nan))
+            changes = r.get("method_changes", "")
+            row[f"{el}_method_changes"] = changes if isinstance(changes, str) else ""
         ex = exceedance_table(res, catalogue)
         ex = ex[(ex["site"] == site) & (ex["receptor"] == own) & (ex["period"] == "span")]
         if len(ex) and ex.iloc[0]["note"] != NO_CRITICAL_LOADS:

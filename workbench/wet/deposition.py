@@ -341,8 +341,18 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     pct = np.round(100 * np.nan_to_num(flagged_share), 1).astype(str)
     reasons = _join(reasons, has_flagged, np.char.add(np.char.add(np.char.add(
         n_flagged_kept.astype(str), " flagged samples kept ("), pct), " % of precipitation)"))
-    period_status = np.select([missing, filled, failed, has_flagged],
-                              ["missing", "filled", "flagged", "flagged"],
+    # gauge depths filled (collector or met, section 6): the period says so and is
+    # 'filled' where nothing weaker holds (docs/budget.md, "Status")
+    is_gfill = np.isin(filled_src[i], ["collector", "met"])
+    gfill_share = per(np.where(is_gfill, weight, 0.0))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        gfill_share = np.where(precip > 0, gfill_share / np.where(precip > 0, precip, 1.0), 0.0)
+    has_gfill = (n_gauge_filled > 0) & ~missing
+    gpct = np.round(100 * np.nan_to_num(gfill_share), 1).astype(str)
+    reasons = _join(reasons, has_gfill, np.char.add(np.char.add(np.char.add(
+        n_gauge_filled.astype(str), " gauge depths filled ("), gpct), " % of precipitation)"))
+    period_status = np.select([missing, filled, failed, has_flagged, has_gfill],
+                              ["missing", "filled", "flagged", "flagged", "filled"],
                               "complete").astype(object)
 
     # --- fluxes and sea salt ------------------------------------------------------------

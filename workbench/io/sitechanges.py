@@ -1,0 +1,306 @@
+"""The history of a site: ``[[site.change]]`` tables of the site catalogue.
+
+A long record changes method: the laboratory's unit or detection limit, the gauge, the
+sampler or collector, the place of the site, the surface around it.  A user declares
+each change once, beside the site::
+
+    [[site.change]]
+    date = 2014-04-01                  # from this date on (UTC)
+    what = "land_use"                  # one of CHANGE_KINDS
+    from = "conifer_forest"            # land_use and collector: the class before ...
+    to = "grass"                       # ... and after
+    note = "forest clear-felled"       # optional words
+
+The declarations are read here (errors located at the table's key); what the run does
+with them is in :func:`workbench.analysis.trends.change_notes` (the trends that cross a
+change say so) and :func:`surface_notes` (a run whose period crosses a change of the
+surface or collector is told that the engine uses the catalogue's one for every year).
+"""
+from __future__ import annotations
+
+import datetime as _dt
+import re
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..errors import suggest
+from ..landuse import LAND_USE
+
+#: What a change may be (docs/data_formats.md, "A long record: the site's history").
+CHANGE_KINDS = ("land_use", "collector", "location", "sampler", "gauge", "laboratory",
+                "units", "detection_limit", "other")
+#: Keys of a ``[[site.change]]`` table.
+CHANGE_KEYS = ("date", "what", "from", "to", "latitude", "longitude", "note")
+#: Changes that alter what the engine computes (it uses the catalogue's one value).
+ENGINE_KINDS = ("land_use", "collector")
+#: A move farther than this is another site, not a move of the same one [km] (a site
+#: moved "a few hundred metres" keeps its record; our choice).
+MOVE_HINT_KM = 5.0
+_EARTH_RADIUS_KM = 6371.0     # mean Earth radius [km] (common practice)
+
+
+@dataclass(frozen=True)
+class SiteChange:
+    """One declared change of a site's method.  ``date`` is a UTC date."""
+
+    date: _dt.date
+    what: str
+    before: str | None = None       #: ``from`` (land_use, collector)
+    after: str | None = None        #: ``to``
+    latitude: float | None = None   #: the new place (location) [degree north]
+    longitude: float | None = None  #: [degree east]
+    note: str = ""
+
+    def describe(self) -> str:
+        """``2014-04-01 land_use conifer_forest -> grass (forest clear-felled)``."""
+        text = f"{self.date.isoformat()} {self.what}"
+        if self.before or self.after:
+            text += f" {self.before} -> {self.after}"
+        if self.latitude is not None:
+            text += f" to {self.latitude:g} N {self.longitude:g} E"
+        return text + (f" ({self.note})" if self.note else "")
+
+    def as_dict(self) -> dict:
+        """The ``[[site.change]]`` table of this change."""
+        out = {"date": self.date.isoformat(), "what": self.what}
+        for key, v in (("from", self.before), ("to", self.after), ("latitude", self.latitude),
+                       ("longitude", self.longitude)):
+            if v is not None:
+                out[key] = v
+        if self.note:
+            out["note"] = self.note
+        return out
+
+
+def change_key_line(text_lines, start, end, j, key):
+    """Line (1-based) of `key` in the j-th ``[[site.change]]`` table between lines
+    `start` and `end` (0-based) of the catalogue; the table's header without the key,
+    the block's first line without the table."""
+    head = re.compile(r"^\s*\[\[\s*site\.change\s*\]\]")
+    heads = [i for i in range(start, end) if head.match(text_lines[i])]
+    if j >= len(heads):
+        return start + 1
+    stop = heads[j + 1] if j + 1 < len(heads) else end
+    pat = re.compile(rf"^\s*{re.escape(key)}\s*=")
+    for i in range(heads[j] + 1, stop):
+        if text_lines[i].lstrip().startswith("["):
+            break
+        if pat.match(text_lines[i]):
+            return i + 1
+    return heads[j] + 1
+
+
+def _date(v):
+    if isinstance(v, _dt.datetime):
+        return v.date() if v.time() == _dt.time(0) else None
+    if isinstance(v, _dt.date):
+        return v
+    if isinstance(v, str):
+        try:
+            return _dt.date.fromisoformat(v.strip())
+        except ValueError:
+            return None
+    return None
+
+
+def _distance_km(lat1, lon1, lat2, lon2) -> float:
+    """Great-circle distance [km] (haversine; common practice)."""
+    p1, p2 = np.deg2rad(lat1), np.deg2rad(lat2)
+    a = (np.sin((p2 - p1) / 2) ** 2
+         + np.cos(p1) * np.cos(p2) * np.sin(np.deg2rad(lon2 - lon1) / 2) ** 2)
+    return float(2 * _EARTH_RADIUS_KM * np.arcsin(np.sqrt(a)))
+
+
+def check_changes(t: dict, err, notes: list, label: str) -> tuple:
+    """The site's ``change`` tables as :class:`SiteChange`, in date order.
+
+    Parameters
+    ----------
+    t : dict
+        The site's keys; ``t["change"]`` a list of tables (``[[site.change]]``).
+    err : callable
+        ``err(problem, j, key, value=None, expected=None)`` -> an InputError located at
+        `key` of the j-th change table.
+    notes : list
+        Hints (a move farther than :data:`MOVE_HINT_KM`) are appended here.
+    label : str
+        Names the site in the hints.
+
+    Raises
+    ------
+    InputError
+        An unknown key or kind, a date that is not a date, a ``from``/``to`` that is not a
+        class of the kind, two changes of one kind on one date, a chain of surface (or
+        collector) changes that does not follow on (one change's ``to`` is not the next
+        one's ``from``) or does not end at the site's own ``land_use`` (``collector``),
+        a location without both coordinates or outside the globe.
+    """
+    tables = t.get("change", [])
+    out = []
+    for j, c in enumerate(tables):
+        if not isinstance(c, dict):
+            raise err("a change is not a table", j, "change", c,
+                      "[[site.change]] tables with date and what")
+        for key in c:
+            if key not in CHANGE_KEYS:
+                raise err("unknown key of a change", j, key, None,
+                          "one of " + ", ".join(CHANGE_KEYS) + suggest(key, CHANGE_KEYS))
+        for key in ("date", "what"):
+            if key not in c:
+                raise err("missing key of a change", j, key, None,
+                          "date (2014-04-01) and what (" + ", ".join(CHANGE_KINDS) + ")")
+        d = _date(c["date"])
+        if d is None:
+            raise err("change date is not a date", j, "date", c["date"],
+                      "a date such as 2014-04-01 (the first day of the new method, UTC)")
+        what = c["what"]
+        if what not in CHANGE_KINDS:
+            raise err("unknown kind of change", j, "what", what,
+                      "one of " + ", ".join(CHANGE_KINDS) + suggest(str(what), CHANGE_KINDS))
+        classes = LAND_USE if what == "land_use" else ("wet_only", "bulk")
+        if what in ENGINE_KINDS:
+            for key in ("from", "to"):
+                if key not in c:
+                    raise err(f"a {what} change without '{key}'", j, key, None,
+                              "from and to, each one of " + ", ".join(classes))
+                if c[key] not in classes:
+                    raise err(f"unknown {what.replace('_', ' ')} class", j, key, c[key],
+                              "one of " + ", ".join(classes) + suggest(str(c[key]), classes))
+            if c["from"] == c["to"]:
+                raise err(f"a {what} change to the same class", j, "to", c["to"],
+                          f"a class other than from = {c['from']!r}")
+        elif "from" in c or "to" in c:
+            raise err(f"'from'/'to' on a {what} change", j, "from" if "from" in c else "to",
+                      c.get("from", c.get("to")),
+                      "from and to only on land_use and collector changes (words go in note)")
+        lat, lon = c.get("latitude"), c.get("longitude")
+        if what == "location":
+            for key, v, lim in (("latitude", lat, 90), ("longitude", lon, 360)):
+                if v is None:
+                    raise err("a location change without its new coordinates", j, key, None,
+                              "latitude and longitude of the new place [degree]")
+                if isinstance(v, bool) or not isinstance(v, (int, float)) or \
+                        not -min(lim, 180) <= v <= lim:
+                    raise err(f"{key} of a location change out of range", j, key, v,
+                              f"degrees, -{min(lim, 180)} to {lim}")
+        elif lat is not None or lon is not None:
+            raise err(f"coordinates on a {what} change", j,
+                      "latitude" if lat is not None else "longitude", lat if lat is not None else lon,
+                      "coordinates only on a location change")
+        note = c.get("note", "")
+        if not isinstance(note, str):
+            raise err("change note is not text", j, "note", note, "words in quotes")
+        out.append((d, j, SiteChange(d, what, c.get("from"), c.get("to"),
+                                     None if lat is None else float(lat),
+                                     None if lon is None else float(lon), note.strip())))
+    out.sort(key=lambda x: (x[0], x[1]))
+    seen = {}
+    for d, j, ch in out:
+        if (d, ch.what) in seen:
+            raise err(f"two {ch.what} changes on one date", j, "date", d.isoformat(),
+                      f"one change of a kind per date (the other is change {seen[(d, ch.what)] + 1}"
+                      " of this site)")
+        seen[(d, ch.what)] = j
+    own = {"land_use": t.get("land_use"), "collector": t.get("collector", "wet_only")}
+    for what in ENGINE_KINDS:
+        chain = [(j, ch) for _, j, ch in out if ch.what == what]
+        for (j0, a), (j1, b) in zip(chain, chain[1:]):
+            if a.after != b.before:
+                raise err(f"{what} changes do not follow on", j1, "from", b.before,
+                          f"{a.after!r}, the 'to' of the {what} change of {a.date.isoformat()}"
+                          " (periods of a surface must not overlap nor leave a hole)")
+        if chain and chain[-1][1].after != own[what]:
+            j, last = chain[-1]
+            raise err(f"the last {what} change does not end at the site's {what}", j, "to",
+                      last.after, f"{own[what]!r}, the site's {what} (the catalogue describes "
+                      "the site as it is after its last change)")
+    prev = (t.get("latitude"), t.get("longitude"))
+    moves = [ch for _, _, ch in out if ch.what == "location"]
+    if moves and isinstance(prev[0], (int, float)) and isinstance(prev[1], (int, float)):
+        last = moves[-1]
+        if (last.latitude, last.longitude) != (float(prev[0]), float(prev[1])):
+            j = next(j for _, j, ch in out if ch is last)
+            raise err("the last location change does not end at the site's coordinates", j,
+                      "latitude", f"{last.latitude:g}, {last.longitude:g}",
+                      f"the site's latitude and longitude ({prev[0]:g}, {prev[1]:g}): the "
+                      "catalogue describes the site as it is after its last move")
+        for a, b in zip(moves, moves[1:]):
+            km = _distance_km(a.latitude, a.longitude, b.latitude, b.longitude)
+            if km > MOVE_HINT_KM:
+                notes.append(f"{label}: moved {km:.1f} km on {b.date.isoformat()}: a site more "
+                             f"than {MOVE_HINT_KM:g} km away is another site (give it its own id)")
+    return tuple(ch for _, _, ch in out)
+
+
+def changes_in(site, start, end) -> tuple:
+    """The changes of `site` dated inside ``(start, end]`` [datetime64 or str]: those a
+    record from `start` to `end` crosses."""
+    s, e = np.datetime64(start, "D"), np.datetime64(end, "D")
+    return tuple(ch for ch in getattr(site, "changes", ())
+                 if s < np.datetime64(ch.date.isoformat(), "D") <= e)
+
+
+def surface_notes(catalogue, start, end) -> list[str]:
+    """Lines for records from `start` to `end` that cross a change of a site's surface
+    or collector: the engine uses the catalogue's one class in every year."""
+    out = []
+    for site in catalogue:
+        for ch in changes_in(site, start, end):
+            if ch.what not in ENGINE_KINDS:
+                continue
+            y = ch.date.year
+            if ch.what == "land_use":
+                how = (f"for the years before {y} read the rows of receptor {ch.before!r}"
+                       + ("" if ch.before in site.surfaces else
+                          f" (add {ch.before!r} to the site's receptors)"))
+            else:
+                how = (f"the years before {y} need a run of their own ([period] end = "
+                       f"\"{y}-01-01\" and [sites.{site.id}] collector = {ch.before!r})")
+            now = site.land_use if ch.what == "land_use" else site.collector
+            out.append(f"site {site.id}: {ch.what} changed on {ch.date.isoformat()} "
+                       f"({ch.before} -> {ch.after}); this run computes every year with "
+                       f"{ch.what} = {now!r}: {how}; {y} holds both (docs/data_formats.md, "
+                       "\"A long record\")")
+    return out
+
+
+#: Changes of how a sample is taken: one inside a sample's period is said.
+SAMPLE_KINDS = {"precipitation": ("location", "sampler", "collector"),
+                "air": ("location", "sampler")}
+
+
+def sample_notes(ds, catalogue, role, file_name) -> list[str]:
+    """Located lines for samples that hold the whole day of a declared change of how
+    they are taken (:data:`SAMPLE_KINDS`): a sample is taken with one method at one
+    place, so such a change belongs between samples.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        Samples or air periods with ``site``, ``start``, ``end`` and ``line``.
+    role : str
+        ``precipitation`` or ``air``.
+    """
+    if ds is None or "line" not in ds:
+        return []
+    site = ds["site"].values.astype(str)
+    start, end = ds["start"].values, ds["end"].values
+    line = ds["line"].values
+    out = []
+    for s in catalogue:
+        for ch in getattr(s, "changes", ()):
+            if ch.what not in SAMPLE_KINDS[role]:
+                continue
+            d0 = np.datetime64(ch.date.isoformat(), "ns")     # the change's day, whole,
+            d1 = d0 + np.timedelta64(1, "D")                  # inside the sample
+            inside = np.flatnonzero((site == s.id) & (start < d0) & (end > d1))
+            if inside.size:
+                lines = ", ".join(str(int(v)) for v in line[inside][:3])
+                more = f" and {inside.size - 3} more" if inside.size > 3 else ""
+                out.append(f"{file_name}, line {lines}{more}: {role} sample of site {s.id} "
+                           f"from {str(start[inside[0]])[:16]} to {str(end[inside[0]])[:16]} "
+                           f"holds the {ch.what} change of {ch.date.isoformat()} (sites.toml):"
+                           " a sample is taken with one method at one place; date the change "
+                           "on the day one sample ends and the next starts (read as it is)")
+    return out
