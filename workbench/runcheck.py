@@ -99,8 +99,24 @@ def show(value) -> str:
     return value if isinstance(value, str) else json.dumps(value, default=str)
 
 
+class Lines:
+    """An outcome told as lines of text (``lines``): printed by the command, shown by a
+    notebook cell."""
+
+    lines: list
+
+    def text(self) -> str:
+        return "\n".join(self.lines)
+
+    def __str__(self) -> str:
+        return self.text()
+
+    def _repr_pretty_(self, p, cycle):      # a notebook cell shows the lines
+        p.text(self.text())
+
+
 @dataclass
-class Verification:
+class Verification(Lines):
     """The outcome of :func:`verify_run`: lines to print and whether all matches."""
 
     run: Path
@@ -111,15 +127,6 @@ class Verification:
     def ok(self) -> bool:
         """True when outputs, scenario and inputs are as at the run."""
         return not self.problems
-
-    def text(self) -> str:
-        return "\n".join(self.lines)
-
-    def __str__(self) -> str:
-        return self.text()
-
-    def _repr_pretty_(self, p, cycle):      # a notebook cell shows the lines
-        p.text(self.text())
 
 
 def _candidates(record: dict, run: Path) -> list[Path]:
@@ -139,7 +146,8 @@ def _find(record: dict, run: Path):
     return next((p for p in places if p.exists()), None), places
 
 
-def _short(digest) -> str:
+def short_digest(digest) -> str:
+    """The first 12 characters of a SHA-256, as the lines show it."""
     return str(digest)[:12]
 
 
@@ -220,8 +228,8 @@ def verify_run(run, scenario=None) -> Verification:
                 "scenario file)")
         else:
             say(f"scenario: {sc_path}: " + ("as at the run" if same else
-                f"differs from the run (sha256 {_short(sc_rec.get('sha256'))} at the run, "
-                f"{_short(sha256(sc_path))} now)"))
+                f"differs from the run (sha256 {short_digest(sc_rec.get('sha256'))} at the "
+                f"run, {short_digest(sha256(sc_path))} now)"))
         if not same and sc_rec:
             bad("scenario changed")
         try:
@@ -268,7 +276,8 @@ def verify_run(run, scenario=None) -> Verification:
         elif sha256(found) != rec.get("sha256"):
             bad(f"input {role} changed")
             say(f"input {role} ({name}): {found} differs from the run (sha256 "
-                f"{_short(rec.get('sha256'))} at the run, {_short(sha256(found))} now)")
+                f"{short_digest(rec.get('sha256'))} at the run, "
+                f"{short_digest(sha256(found))} now)")
         else:
             say(f"input {role} ({name}): as at the run")
     if loaded is not None:

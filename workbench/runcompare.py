@@ -15,7 +15,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .runcheck import RunRecordError, option_differences, read_provenance, show
+from .runcheck import (Lines, RunRecordError, option_differences, read_provenance,
+                       short_digest, show)
 
 __all__ = ["Comparison", "compare_runs", "budget_differences"]
 
@@ -81,21 +82,17 @@ def budget_differences(a, b, rtol: float = 0.0) -> tuple[pd.DataFrame, dict]:
 
 
 @dataclass
-class Comparison:
+class Comparison(Lines):
     """The outcome of :func:`compare_runs`: lines to print and the differing totals."""
 
     lines: list = field(default_factory=list)
     budget: pd.DataFrame | None = None
     same: bool = True
 
-    def text(self) -> str:
-        return "\n".join(self.lines)
 
-    def __str__(self) -> str:
-        return self.text()
-
-    def _repr_pretty_(self, p, cycle):      # a notebook cell shows the lines
-        p.text(self.text())
+def _input_name(record: dict) -> str:
+    """An input of provenance.json as the lines name it: relative to its scenario."""
+    return record.get("in_scenario_folder") or Path(record.get("path", "")).name
 
 
 def compare_runs(a, b, rtol: float = 0.0, rows: int | None = SHOWN_ROWS) -> Comparison:
@@ -139,14 +136,13 @@ def compare_runs(a, b, rtol: float = 0.0, rows: int | None = SHOWN_ROWS) -> Comp
     lines = []
     for role in list(dict.fromkeys([*ia, *ib])):
         ra, rb = ia.get(role), ib.get(role)
-        name = lambda r: r.get("in_scenario_folder") or Path(r.get("path", "")).name  # noqa: E731
         if ra is None or rb is None:
             lines.append(f"  {role}: only in {'A' if rb is None else 'B'} "
-                         f"({name(ra or rb)})")
+                         f"({_input_name(ra or rb)})")
         elif ra.get("sha256") != rb.get("sha256"):
-            lines.append(f"  {role}: different files ({name(ra)} in A, {name(rb)} in B; "
-                         f"sha256 {str(ra.get('sha256'))[:12]} and "
-                         f"{str(rb.get('sha256'))[:12]})")
+            lines.append(f"  {role}: different files ({_input_name(ra)} in A, "
+                         f"{_input_name(rb)} in B; sha256 {short_digest(ra.get('sha256'))} "
+                         f"and {short_digest(rb.get('sha256'))})")
     inputs_differ = [ln for ln in lines if not ln.startswith("  scenario:")]
     if lines:
         say("inputs (by their SHA-256):")

@@ -32,10 +32,8 @@ import pandas as pd
 import xarray as xr
 
 from ..errors import WorkbenchError
+from ..io.critical_loads import ACIDITY_KEYS, NUTRIENT_KEY
 
-#: The keys of a critical load function of acidity and of nutrient N [eq ha-1 yr-1].
-ACIDITY_KEYS = ("cl_max_s", "cl_min_n", "cl_max_n")
-NUTRIENT_KEY = "cl_nut_n"
 #: Region codes and what each says, for tables and figures.
 REGIONS = {
     -1: "not determined (deposition or critical load missing, a net emission, or a "

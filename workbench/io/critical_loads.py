@@ -16,7 +16,10 @@ import re
 from ..errors import NUMBER_TEXT, suggest
 from ..species import EQ_PER_MOL_ELEMENT, element_molar_mass
 
-CRITICAL_LOAD_KEYS = ("cl_max_s", "cl_min_n", "cl_max_n", "cl_nut_n")
+#: The keys of a critical load function of acidity and of nutrient N [eq ha-1 yr-1].
+ACIDITY_KEYS = ("cl_max_s", "cl_min_n", "cl_max_n")
+NUTRIENT_KEY = "cl_nut_n"
+CRITICAL_LOAD_KEYS = ACIDITY_KEYS + (NUTRIENT_KEY,)
 #: The element each key is a load of (its equivalents: 2 per mol S, 1 per mol N).
 ELEMENT_OF = {"cl_max_s": "S", "cl_min_n": "N", "cl_max_n": "N", "cl_nut_n": "N"}
 #: Published critical loads are commonly hundreds to a few thousand eq/ha/yr (common
@@ -122,7 +125,7 @@ def _bad_value(key, v):
 def _function_notes(merged):
     """(problem, key, expected) hints on a whole critical load function of acidity."""
     out = []
-    keys = ("cl_max_s", "cl_min_n", "cl_max_n")
+    keys = ACIDITY_KEYS
     s, n0, n1 = (merged.get(k) for k in keys)
     given = [k for k in keys if k in merged]
     if len(given) == 2:     # a forgotten key: said only in exceedance.csv before (one key
@@ -231,9 +234,9 @@ def check_critical_loads(t, surfaces, err, table_err, notes, site_id):
                 notes.append(f"site {site_id!r}: " + str(locate(r)(
                     doubt[0], key, given[r][key], doubt[1])))
         for problem, key, expected in _function_notes(merged):
-            if r and not any(k in own for k in ("cl_max_s", "cl_min_n", "cl_max_n")):
+            if r and not any(k in own for k in ACIDITY_KEYS):
                 continue               # the site's own function, noted once above
-            taken = [k for k in ("cl_max_s", "cl_min_n", "cl_max_n")
+            taken = [k for k in ACIDITY_KEYS
                      if r and k in cl and k not in own]
             if taken:           # the receptor's function is partly the site's
                 problem += f" ({', '.join(taken)} from [site.critical_loads])"

@@ -13,6 +13,7 @@ from ..analysis.exceedance import (REGIONS, acidity_exceedance, not_determined,
                                    nutrient_n_exceedance)
 from ..analysis.trends import MIN_YEARS
 from ..analysis.whatif import GROUP_TEXT, GROUPS, MODES, group_deposition, path_table, plain_statement
+from ..io.critical_loads import ACIDITY_KEYS
 from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh, table_html)
@@ -26,7 +27,7 @@ from .summaries import RANKABLE, total_rates
 OFFERED_DRAWS = 200
 
 #: The keys of the critical load function of acidity.
-ACIDITY = ("cl_max_s", "cl_min_n", "cl_max_n")
+ACIDITY = ACIDITY_KEYS
 #: What the explorer says of a critical load the receptor does not have.
 NO_LOAD_WORDS = {
     "acidity": "not computed (no complete critical load function of acidity in sites.toml)",
