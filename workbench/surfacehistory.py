@@ -256,8 +256,8 @@ def collector_shares(catalogue, sites, periods) -> tuple:
             continue
         i = list(sites).index(site)
         instants, classes = _segments(changes)
-        bounds = np.concatenate([[np.datetime64("1000-01-01", "ns")], instants,
-                                 [np.datetime64("2999-01-01", "ns")]])
+        bounds = np.concatenate([[np.datetime64("1700-01-01", "ns")], instants,
+                                 [np.datetime64("2250-01-01", "ns")]])
         length = (p1 - p0).astype(float)
         bulk = np.zeros(n_p)
         for k, c in enumerate(classes):        # the few segments, each over every period
