@@ -212,7 +212,6 @@ def test_several_changes_in_sequence(record):
     """crops until 2013-01-01, conifer_forest until 2014-04-01, grass after: each hour of
     the own row from its class (the declared receptors of those classes, computed with
     the class defaults)."""
-    from workbench.surfacehistory import CLASSES
     text = (SITE.format(land_use="grass", height=0.15, collector="wet_only",
                         receptors='"crops", "conifer_forest"')
             + LAND_CHANGE.format(date="2013-01-01", frm="crops", to="conifer_forest")
@@ -227,6 +226,7 @@ def test_several_changes_in_sequence(record):
                                rtol=1e-12)
     np.testing.assert_allclose(own[mid], v["vd_SO2"].sel(receptor="conifer_forest").values[mid],
                                rtol=1e-12)
+    from workbench.surfacehistory import CLASSES
     names = np.array(CLASSES)[v["land_use_in_force"].sel(receptor="grass").values]
     assert list(dict.fromkeys(names)) == ["crops", "conifer_forest", "grass"]
 
