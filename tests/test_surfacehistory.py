@@ -340,7 +340,12 @@ def test_run_folder_of_a_changed_site_accounts_rows_and_verifies(record, tmp_pat
     assert "land_use_in_force" in v and v["land_use_in_force"].attrs["flag_meanings"].split()[0] \
         == "conifer_forest"
     v.close()
+    from cf_check import cf_check        # cfchecker (CF 1.8), as tests/test_cf_outputs.py
+    for name in ("velocities.nc", "budget.nc"):
+        res = cf_check(out / name, tmp_path)
+        assert not res["errors"], (name, res["errors"])
     b = pd.read_csv(out / "budget.csv", keep_default_na=False)
     row = b[(b["period"].astype(str) == "2014") & (b["pathway"] == "dry")
             & (b["species"] == "all") & (b["element"] == "S") & (b["receptor"] == "grass")]
     assert row["note"].str.contains("surface conifer_forest until 2014-04-01, grass after").all()
+

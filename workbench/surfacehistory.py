@@ -38,8 +38,8 @@ def land_use_history(catalogue) -> tuple:
     """The declared land-use changes of the catalogue's sites, as the key of the stages
     that follow them: ``((site, land_use, ((date, from, to), ...)), ...)`` for the sites
     with at least one change (dates ISO text, in date order).  A site whose
-    ``land_use`` is set otherwise by an override (``[sites.<id>] land_use``, a what-if)
-    is left out: the override asks for that surface in every hour."""
+    ``land_use`` is set otherwise by an override (a what-if of the apps) is left out:
+    the override asks for that surface in every hour."""
     out = []
     for s in catalogue:
         ch = tuple((c.date.isoformat(), c.before, c.after)
@@ -50,12 +50,14 @@ def land_use_history(catalogue) -> tuple:
 
 
 def collector_history(catalogue) -> tuple:
-    """``((site, collector, ((date, from, to), ...)), ...)`` of the collector changes."""
+    """``((site, collector, ((date, from, to), ...)), ...)`` of the collector changes.
+    A site whose collector is set otherwise by an override (``[sites.<id>] collector``)
+    is left out: the override asks for that collector in every period."""
     out = []
     for s in catalogue:
         ch = tuple((c.date.isoformat(), c.before, c.after)
                    for c in getattr(s, "changes", ()) if c.what == "collector")
-        if ch:
+        if ch and ch[-1][2] == s.collector:
             out.append((s.id, s.collector, ch))
     return tuple(out)
 
