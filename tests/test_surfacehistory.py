@@ -310,7 +310,7 @@ def test_collector_change_inside_a_year_is_shared_by_hours_and_flagged(collector
     assert h.loc[("2015", "S", "dry", "pSO4"), "flux_kg_ha"] == 0
 
 
-def test_run_folder_of_a_changed_site_accounts_rows_and_verifies(record, tmp_path):
+def test_run_folder_of_a_changed_site_accounts_rows_and_verifies(record, runs, tmp_path):
     """`workbench run` of the felled record: input_rows.csv counts every data line of
     each input, provenance.json verifies, velocities.nc has land_use_in_force."""
     import xarray as xr
