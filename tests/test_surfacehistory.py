@@ -349,3 +349,22 @@ def test_run_folder_of_a_changed_site_accounts_rows_and_verifies(record, runs, t
             & (b["species"] == "all") & (b["element"] == "S") & (b["receptor"] == "grass")]
     assert row["note"].str.contains("surface conifer_forest until 2014-04-01, grass after").all()
 
+
+
+def test_check_refuses_particles_of_an_earlier_bulk_collector_without_a_correction(record):
+    """A site now wet-only whose collector was bulk before 2014, with particles measured
+    and no [budget] bulk_correction: `check` (preflight) refuses as it does for a bulk
+    site, naming the site (before, only the budget refused it, after the engine ran)."""
+    from workbench.preflight import PreflightError, prepare
+    text = (SITE.format(land_use="grass", height=0.15, collector="wet_only", receptors="")
+            + COLLECTOR_CHANGE.format(date="2014-01-01").replace(
+                'from = "wet_only"\nto = "bulk"', 'from = "bulk"\nto = "wet_only"'))
+    d = record / "c_refused"
+    d.mkdir(exist_ok=True)
+    (d / "sites.toml").write_text(text)
+    sc = (record / "scenario.toml").read_text()
+    for f in ("precipitation.csv", "air.csv", "met.csv.gz"):
+        sc = sc.replace(f'"{f}"', f'"{(record / f).as_posix()}"')
+    (d / "scenario.toml").write_text(sc)
+    with pytest.raises(PreflightError, match="site 'haugh' has a bulk collector"):
+        prepare(d / "scenario.toml")

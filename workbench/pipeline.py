@@ -272,7 +272,10 @@ class Study:
             return _NONE
         met = self._input("met", self.inputs.met)
         surf = self._surfaces_node(overrides)
-        history = land_use_history(self.catalogue(overrides))
+        times = met.value["time"].values
+        first = times.min() - np.timedelta64(1, "h") if times.size else None
+        history = tuple(h for h in land_use_history(self.catalogue(overrides))  # changes
+                        if first is None or np.datetime64(h[2][-1][0], "ns") > first)  # in the met
         if not history:
             return self._velocities_on(dry_options, overrides, met, surf, receptors)
         # the site's own surface follows its declared land-use changes: the earlier

@@ -173,7 +173,8 @@ def in_force(vel: xr.Dataset, history, receptors, real_active=None) -> xr.Datase
     pairs_off = None
     if real_active is not None:
         ra = real_active.sel(site=sites, receptor=out_r).transpose("site", "receptor").values
-        act = vel["active"].transpose("site", "receptor").values[:, keep]
+        act = (vel["active"].transpose("site", "receptor").values[:, keep] if "active" in vel
+               else np.ones(ra.shape, bool))
         pairs_off = act & ~ra.astype(bool)
     out = {}
     for name, v in vel.data_vars.items():
