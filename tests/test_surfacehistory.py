@@ -193,7 +193,8 @@ def test_straddling_year_is_the_sum_of_both_parts(runs):
     study, res = runs["history"]
     o = res.options
     parts = make_periods(np.datetime64("2014-01-01"), np.datetime64("2015-01-01"), "custom",
-                         ranges=[("2014-01-01", "2014-04-01", "a"), ("2014-04-01", "2015-01-01", "b")])
+                         ranges=[("2014-01-01", "2014-04-01", "a"),
+                                 ("2014-04-01", "2015-01-01", "b")])
     got, _ = study.dry(o["dry"], o["budget"], make_periods(
         np.datetime64("2014-01-01"), np.datetime64("2015-01-01"), "custom",
         ranges=[("2014-01-01", "2015-01-01", "y")]), o["fixed_velocity"])

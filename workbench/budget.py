@@ -25,12 +25,12 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .surfacehistory import collector_shares, period_notes
 from .budgetstatus import (bracket_outputs, bulk_caught_brackets, dry_status, join_notes,
                            nh3_net_component, sampling_gap_note, wet_component,
                            wet_outputs)
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
+from .surfacehistory import collector_shares, period_notes
 from .units import deposition_in, element_deposition_in
 
 #: (element, pathway, species, source variable) of every budget component, in order.

@@ -465,7 +465,8 @@ def bulk_caught_brackets(brackets, pairs, bulk, component_of, options):
         if name not in brackets:
             continue
         dep, st, compl = component_of(particle)
-        at = (bulk[:, None, None] if bulk.ndim == 1 else bulk[:, None, :]) & np.ones(dep.shape, bool)
+        at = ((bulk[:, None, None] if bulk.ndim == 1 else bulk[:, None, :])
+              & np.ones(dep.shape, bool))
         for var, new in ((name, dep), (f"{name}_status", st),
                          (f"{name}_completeness", compl),
                          (f"{name}_note", np.full(dep.shape, "caught by the bulk collector: "
