@@ -251,6 +251,10 @@ def test_the_earlier_class_alone_is_not_shown_as_a_receptor(runs):
     res = run_compared(prep.study, o["wet"], o["dry"], o["budget"], prep.scenario.fixed_velocity,
                        p["resolution"], p["start"], p["end"])
     assert list(res.velocities["receptor"].values) == ["grass"]
+    own = res.velocities["vd_SO2"].sel(site="haugh", receptor="grass")
+    before = own["time"].values <= FELLED
+    np.testing.assert_allclose(own.values[before], _own(runs["forest"][1], "conifer_forest")[
+        "vd_SO2"].values[before], rtol=1e-12)
     assert set(budget_table(res.years)["receptor"]) == {"grass"}
     np.testing.assert_allclose(res.velocities["vd_SO2"].sel(site="haugh", receptor="grass").values,
                                runs["history"][1].velocities["vd_SO2"].sel(
