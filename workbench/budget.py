@@ -30,6 +30,7 @@ from .budgetstatus import (bracket_outputs, bulk_caught_brackets, dry_status, jo
                            wet_outputs)
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
+from .surfacehistory import collector_shares, period_notes
 from .units import deposition_in, element_deposition_in
 
 #: (element, pathway, species, source variable) of every budget component, in order.
@@ -264,7 +265,12 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     #: a present component fails completeness (flagged for coverage, not for a flag)
     fails = np.zeros((n_s, n_r, n_p, n_c), bool)
     active = np.array([[r in catalogue[s].surfaces for r in receptors] for s in sites])
-    bulk = np.array([catalogue[s].collector == "bulk" for s in sites])
+    # the collector in force over each period (docs/budget.md, "Bulk collectors": a
+    # declared collector change is followed): share of the period's hours under bulk
+    bulk_share, coll_words = collector_shares(catalogue, sites, periods)
+    bulk_p = bulk_share >= 1.0                       # (site, period) wholly bulk
+    straddle = (bulk_share > 0) & ~bulk_p            # a collector change inside
+    bulk = bulk_share.max(axis=1) > 0                # (site,) bulk in some period
     notes = []
     labels = periods["label"].values
     hours_p = periods["hours"].to_numpy(dtype=float)        # [h]
@@ -300,10 +306,19 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                 note = sampling_gap_note(note, st, w.variables["coverage_fraction"].values,
                                          hours_p[None, :], "precipitation")
             if options.bulk_correction == "scale_wet":
-                d = np.where(bulk[:, None], d * options.bulk_wet_factor, d)
-                note = np.where(bulk[:, None], join_notes(note, f"bulk deposition x "
-                                                     f"{options.bulk_wet_factor:g} "
-                                                     "(bulk_correction scale_wet)"), note)
+                f = options.bulk_wet_factor
+                d = np.where(bulk_p, d * f, d)
+                note = np.where(bulk_p, join_notes(note, f"bulk deposition x {f:g} "
+                                                         "(bulk_correction scale_wet)"), note)
+                # a period holding both collectors: the factor on its bulk share of hours
+                d = np.where(straddle, d * (1.0 - bulk_share * (1.0 - f)), d)
+                note = np.where(straddle, join_notes(note, np.char.add(
+                    coll_words.astype(str), f": bulk deposition x {f:g} on the "
+                    "bulk share of the period's hours (bulk_correction scale_wet)")), note)
+                st = np.where(straddle & (st == "complete"), "flagged", st)
+            if (coll_words != "").any():
+                note = np.where((coll_words != "") & ~straddle,
+                                join_notes(note, coll_words), note)
             dep[:, :, :, j] = d[:, None, :]
             status[:, :, :, j] = st[:, None, :]
             fails[:, :, :, j] = fl[:, None, :]
@@ -343,9 +358,18 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             if sp in PARTICLES and options.bulk_correction == "exclude_particles":
                 # taken as caught: the bulk "wet" ion holds it, so it adds 0 here and
                 # shares that wet component's status (docs/budget.md, bulk collectors)
-                excl = bulk[:, None, None] & np.ones((1, n_r, n_p), bool)
+                excl = bulk_p[:, None, :] & np.ones((1, n_r, n_p), bool)
                 ion = BULK_CAUGHT_IN[sp]
                 jw = [x[2] for x in comps].index(ion)
+                # a period holding both collectors: the particle dry deposition of its
+                # wet-only share of hours is added, the bulk share is taken as caught
+                part = straddle[:, None, :] & np.ones((1, n_r, n_p), bool)
+                d = np.where(part, d * (1.0 - bulk_share[:, None, :]), d)
+                st = np.where(part & (st == "complete"), "flagged", st)
+                comp_note[..., j] = np.where(part, join_notes(comp_note[..., j], np.char.add(
+                    (coll_words[:, None, :] * np.ones((1, n_r, 1), object)).astype(str),
+                    f": the bulk share of the period's hours taken as caught (in its wet {ion}),"
+                    " the rest added")), comp_note[..., j])
                 d = np.where(excl, np.where(status[..., jw] == "missing", np.nan, 0.0), d)
                 st = np.where(excl, status[..., jw], st)
                 c = np.where(excl, compl[..., jw], c)
@@ -363,6 +387,15 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             fractions["air_coverage"][:, :, :, j] = cov
             fractions["flux_coverage"][:, :, :, j] = fc
             fractions["vd_coverage"][:, :, :, j] = vdc
+    # a site's own surface under a land-use class other than its land_use in the period
+    # (workbench/surfacehistory.py): its dry rows say which
+    lu = period_notes(catalogue, sites, list(receptors), periods)
+    if (lu != "").any():
+        for j, (_, path, _) in enumerate(comps):
+            if path == "dry":
+                said = (lu != "") & (status[..., j] != "missing")
+                comp_note[..., j] = np.where(said, join_notes(comp_note[..., j], lu),
+                                             comp_note[..., j])
     # NH3: the net exchange replaces the deposition-only figure when the dry model gave it
     j = [c[2] for c in comps].index("NH3")
     nh3_only = np.where(status[..., j] == "missing", np.nan, dep[..., j])
@@ -403,6 +436,17 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                 "(positive down; NaN unless nh3_treatment = bidirectional)"})}
     names, totals = _totals(dep, status, compl, elements, pathways, species, fails)
     data.update(totals)
+    if (lu != "").any() or (coll_words != "").any():
+        # the sums of a period under another surface or collector say so too
+        t_note = np.full(dep.shape[:3] + (len(names),), "", dtype=object)
+        for t, name in enumerate(names):
+            path = name.split("_")[1]
+            if path in ("wet", "total"):
+                t_note[..., t] = _join_some(t_note[..., t], coll_words[:, None, :]
+                                            * np.ones((1, n_r, 1), object))
+            if path in ("dry", "total"):
+                t_note[..., t] = _join_some(t_note[..., t], lu)
+        data["total_note"] = xr.Variable(dims[:3] + ("total",), t_note.astype(object))
     coords = {"site": sites, "receptor": list(receptors), "period": labels,
               "component": [f"{e}/{p}/{s}" for e, p, s in comps],
               "element": ("component", elements), "pathway": ("component", pathways),
@@ -415,7 +459,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
         sp_index = [c[2] for c in comps].index
         data.update(bulk_caught_brackets(
             bracket_outputs(dr, PAIRS, d_species, d_vdc, d_fs, d_meas, d_sok, d_ratio, options),
-            PAIRS, bulk, lambda p: (dep[..., sp_index(p)], status[..., sp_index(p)],
+            PAIRS, bulk_p, lambda p: (dep[..., sp_index(p)], status[..., sp_index(p)],
                                     compl[..., sp_index(p)]), options))
         conc = dr.variables["concentration"]
         data["air_concentration"] = xr.Variable(
@@ -431,6 +475,12 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                      "notes": json.dumps(notes), "nh3_figure": figure,
                      "omissions": json.dumps([list(o) for o in OMISSIONS])})
     return ds
+
+
+def _join_some(acc, text):
+    """:func:`join_notes` where `text` (an array) is not empty."""
+    text = np.asarray(text, dtype=object)
+    return np.where(text == "", acc, join_notes(acc, text))
 
 
 def _same_axis(ds: xr.Dataset, dim: str, values) -> bool:

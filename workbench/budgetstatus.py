@@ -446,8 +446,9 @@ def bulk_caught_brackets(brackets, pairs, bulk, component_of, options):
         :func:`bracket_outputs`; changed in place and returned.
     pairs : dict
         :data:`workbench.budget.PAIRS`.
-    bulk : ndarray of bool (site)
-        The site has a bulk collector.
+    bulk : ndarray of bool (site) or (site, period)
+        The site has a bulk collector (over the whole period: a declared collector
+        change is followed).
     component_of : callable
         Particle species -> (deposition [mol m-2], status, completeness [1]) on (site,
         receptor, period), the budget's own component after its bulk rule.
@@ -464,7 +465,8 @@ def bulk_caught_brackets(brackets, pairs, bulk, component_of, options):
         if name not in brackets:
             continue
         dep, st, compl = component_of(particle)
-        at = bulk[:, None, None] & np.ones(dep.shape, bool)
+        at = ((bulk[:, None, None] if bulk.ndim == 1 else bulk[:, None, :])
+              & np.ones(dep.shape, bool))
         for var, new in ((name, dep), (f"{name}_status", st),
                          (f"{name}_completeness", compl),
                          (f"{name}_note", np.full(dep.shape, "caught by the bulk collector: "

@@ -41,6 +41,7 @@ from .drycomponents import dry_components, dry_rows
 from .graph import Graph, Node, content_digest, input_node, token
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
+from .surfacehistory import earlier_classes, land_use_history
 from .tables import budget_table, span_table
 
 #: Kept for older imports: the wet options of the wet chain alone.
@@ -271,6 +272,29 @@ class Study:
             return _NONE
         met = self._input("met", self.inputs.met)
         surf = self._surfaces_node(overrides)
+        times = met.value["time"].values
+        first = times.min() - np.timedelta64(1, "h") if times.size else None
+        history = tuple(h for h in land_use_history(self.catalogue(overrides))  # changes
+                        if first is None or np.datetime64(h[2][-1][0], "ns") > first)  # in the met
+        if not history:
+            return self._velocities_on(dry_options, overrides, met, surf, receptors)
+        # the site's own surface follows its declared land-use changes: the earlier
+        # classes are computed as receptors of the site, then put on its own row hour by
+        # hour (docs/data_formats.md, "A long record"; workbench/surfacehistory.py)
+        surf_h = self._run("history_surfaces", deps={"catalogue": self._catalogue_node(overrides)},
+                           params={"history": history})
+        every = tuple(str(r) for r in surf.value["receptor"].values)
+        shown = every if receptors is None else tuple(receptors)
+        extra = tuple(dict.fromkeys(c for cs in earlier_classes(history).values() for c in cs
+                                    if c not in shown))
+        computed = self._velocities_on(dry_options, overrides, met, surf_h,
+                                       None if receptors is None else shown + extra)
+        return self._run("land_use_in_force", deps={"velocities": computed, "surfaces": surf},
+                         params={"history": history, "receptors": shown,
+                                 "wanted": receptors is None})
+
+    def _velocities_on(self, dry_options, overrides, met: Node, surf: Node, receptors) -> Node:
+        """:meth:`_velocities_node` on the surfaces of `surf`."""
         if receptors is not None:
             return self._group_velocities(dry_options, overrides, met, surf, receptors)
         sites = tuple(str(s) for s in met.value["site"].values)

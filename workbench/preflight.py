@@ -241,7 +241,8 @@ def _bulk_refusal(study, scenario, catalogue):
     if (scenario.options["budget"].bulk_correction != "none" or inp.air is None
             or inp.met is None):
         return
-    bulk = [s.id for s in catalogue if s.collector == "bulk"]
+    bulk = [s.id for s in catalogue if s.collector == "bulk" or any(   # or once was
+        c.what == "collector" and "bulk" in (c.before, c.after) for c in s.changes)]
     site = inp.air["site"].values.astype(str)
     for sp in BULK_PARTICLES:
         if sp not in inp.air:

@@ -88,6 +88,26 @@ def surfaces(o, catalogue):
     return catalogue.surfaces()
 
 
+@stage("history_surfaces")
+def history_surfaces(o, catalogue, history):
+    """The receptor surfaces with the classes a site's own surface had before its
+    declared land-use changes (`history`: :func:`workbench.surfacehistory.land_use_history`,
+    read from the catalogue's ``[[site.change]]`` tables), each computed with its class
+    defaults."""
+    from .surfacehistory import history_catalogue
+    return history_catalogue(catalogue, history).surfaces()
+
+
+@stage("land_use_in_force")
+def land_use_in_force(o, velocities, surfaces, history, receptors, wanted):
+    """The velocities with each site's own surface under the class in force at each hour
+    (:func:`workbench.surfacehistory.in_force`); `wanted`: the pairs no site asks for are
+    put back to not computed."""
+    from .surfacehistory import in_force
+    return in_force(velocities, history, receptors,
+                    surfaces["active"] if wanted else None)
+
+
 @stage("velocities", reads={"dry": VELOCITY_OPTIONS}, counts_as="velocities")
 def velocities(o, met, surfaces, catalogue, steps, receptors, air=None):
     """Hourly Ra, Rb, Rc and Vd (its steps are stages of their own).

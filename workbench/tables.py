@@ -85,6 +85,10 @@ def _rows(ds: xr.Dataset, dep_var, status_var, compl_var, comp_dim, element, pat
         if extra in ds and comp_dim in ds[extra].dims:
             frame[extra] = _labels(ds[extra].transpose("site", "receptor", "period",
                                                        comp_dim).values.reshape(-1))
+    if comp_dim == "total" and "total_note" in ds:     # a changed surface or collector
+        frame["note"] = _labels(ds["total_note"].transpose("site", "receptor", "period",
+                                                           "total").values.reshape(-1))
+
     def flat(var):
         return ds[var].transpose("site", "receptor", "period", comp_dim).values.reshape(-1)
     frame["missing_components"] = _labels(flat(missing_var)) if missing_var else ""

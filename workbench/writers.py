@@ -169,7 +169,8 @@ def budget_dataset(result) -> xr.Dataset:
 #: stay in the Python result; writing them all made the demo file near 1 GB).
 VELOCITY_FILE_VARIABLES = ("friction_velocity", "obukhov_length", "ra", "roughness_length",
                            "displacement_height", "seasonal_category", "surface_wet",
-                           "ustar_floor_used", "ra_cap_used", "ra_height_raised")
+                           "ustar_floor_used", "ra_cap_used", "ra_height_raised",
+                           "land_use_in_force")
 
 
 def velocities_dataset(vd: xr.Dataset) -> xr.Dataset:

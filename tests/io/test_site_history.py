@@ -208,8 +208,8 @@ def test_a_bad_cell_after_the_switch_names_its_own_column(tmp_path):
 
 
 def test_surface_and_collector_changes_tell_the_run_what_it_computes(tmp_path):
-    """The engine uses the catalogue's one land use and collector in every year: a
-    change inside the records says so and how to get the years before."""
+    """The engine follows a land use or collector change in one run: a change inside
+    the records says how (the old note sent the user to a run of their own)."""
     from workbench.io.sitechanges import surface_notes
     cat = read_sites(_catalogue(tmp_path, FELLED + """
 [[site.change]]
@@ -222,6 +222,7 @@ to = "wet_only"
     assert len(notes) == 2
     land, coll = sorted(notes, key=lambda n: "collector" in n)
     assert "land_use changed on 2014-04-01 (conifer_forest -> grass)" in land
-    assert "add 'conifer_forest' to the site's receptors" in land     # alpha: grass only
-    assert "[sites.alpha] collector = 'bulk'" in coll and 'end = "2011-01-01"' in coll
+    assert "computed as 'conifer_forest' until 2014-04-01 00:00 UTC and 'grass'" in land
+    assert "sums both parts" in land and "run of their own" not in coll
+    assert "under the collector in force ('bulk' until 2011-01-01" in coll
     assert surface_notes(cat, np.datetime64("2015-01-01"), np.datetime64("2020-01-01")) == []

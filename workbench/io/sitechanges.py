@@ -13,8 +13,9 @@ each change once, beside the site::
 
 The declarations are read here (errors located at the table's key); what the run does
 with them is in :func:`workbench.analysis.trends.change_notes` (the trends that cross a
-change say so) and :func:`surface_notes` (a run whose period crosses a change of the
-surface or collector is told that the engine uses the catalogue's one for every year).
+change say so), in :mod:`workbench.surfacehistory` (the engine follows a change of the
+surface or of the collector in one run) and in :func:`surface_notes` (a run whose period
+crosses such a change is told what the engine does with it).
 """
 from __future__ import annotations
 
@@ -32,7 +33,8 @@ CHANGE_KINDS = ("land_use", "collector", "location", "sampler", "gauge", "labora
                 "units", "detection_limit", "other")
 #: Keys of a ``[[site.change]]`` table.
 CHANGE_KEYS = ("date", "what", "from", "to", "latitude", "longitude", "note")
-#: Changes that alter what the engine computes (it uses the catalogue's one value).
+#: Changes that alter what the engine computes (it follows them hour by hour or period by
+#: period: workbench/surfacehistory.py).
 ENGINE_KINDS = ("land_use", "collector")
 #: A move farther than this is another site, not a move of the same one [km] (a site
 #: moved "a few hundred metres" keeps its record; our choice).
@@ -243,25 +245,27 @@ def changes_in(site, start, end) -> tuple:
 
 def surface_notes(catalogue, start, end) -> list[str]:
     """Lines for records from `start` to `end` that cross a change of a site's surface
-    or collector: the engine uses the catalogue's one class in every year."""
+    or collector: what the run does with it (:mod:`workbench.surfacehistory`)."""
     out = []
     for site in catalogue:
         for ch in changes_in(site, start, end):
             if ch.what not in ENGINE_KINDS:
                 continue
-            y = ch.date.year
+            d = ch.date.isoformat()
             if ch.what == "land_use":
-                how = (f"for the years before {y} read the rows of receptor {ch.before!r}"
-                       + ("" if ch.before in site.surfaces else
-                          f" (add {ch.before!r} to the site's receptors)"))
+                how = (f"its own surface ({site.land_use!r} row) is computed as {ch.before!r} "
+                       f"until {d} 00:00 UTC and {ch.after!r} from then on ({ch.before!r} with "
+                       "the class defaults of the land-use table); a period holding the change "
+                       "sums both parts and its note says so")
+                if site.met_land_use is None:
+                    how += (f"; the wind mast's surface (met_land_use, not given) is taken as "
+                            f"{site.land_use!r} in every hour")
             else:
-                how = (f"the years before {y} need a run of their own ([period] end = "
-                       f"\"{y}-01-01\" and [sites.{site.id}] collector = {ch.before!r})")
-            now = site.land_use if ch.what == "land_use" else site.collector
-            out.append(f"site {site.id}: {ch.what} changed on {ch.date.isoformat()} "
-                       f"({ch.before} -> {ch.after}); this run computes every year with "
-                       f"{ch.what} = {now!r}: {how}; {y} holds both (docs/data_formats.md, "
-                       "\"A long record\")")
+                how = (f"each period is budgeted under the collector in force ({ch.before!r} "
+                       f"until {d}, {ch.after!r} from then on); a period holding the change "
+                       "takes the bulk rule on its bulk share of hours and is flagged")
+            out.append(f"site {site.id}: {ch.what} changed on {d} ({ch.before} -> {ch.after}): "
+                       f"{how} (docs/data_formats.md, \"A long record\")")
     return out
 
 

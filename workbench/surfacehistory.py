@@ -1,0 +1,279 @@
+"""A site's own surface and collector follow its declared history in one run.
+
+A site whose land use changed (``[[site.change]] what = "land_use"``, docs/data_formats.md,
+"A long record") has its own surface (its ``land_use`` row) computed under the class in
+force at each hour: before the change the ``from`` class, after it the ``to`` class,
+switching at 00:00 UTC of the change's date.  The engine computes each class once (the
+classes before a change as receptors of the site, with the class defaults of the
+land-use table, as a declared receptor of that class would be), and
+:func:`in_force` puts on the site's own row the hours of the class in force (a boolean
+time mask per change, no loop over hours).  The site's ``canopy_height_m``,
+``roughness_length_m``, ``displacement_height_m`` and ``lai`` describe the surface as it
+is now (after the last change): they apply to the hours of the site's own class only.
+Receptors declared by the user keep their one class in every hour.
+
+A changed collector (``what = "collector"``) is followed by the budget
+(:func:`collector_shares`): each reporting period takes the rules of the collector in
+force over it (docs/budget.md, "Bulk collectors").
+"""
+from __future__ import annotations
+
+import dataclasses
+
+import numpy as np
+import xarray as xr
+
+from .landuse import LAND_USE
+
+#: The classes of ``land_use_in_force`` (its flag values are the positions here).
+CLASSES = tuple(LAND_USE)
+#: Per-(site, receptor) counts of the velocities and the hourly flag each one counts:
+#: counted again over the hours of the class in force.
+COUNT_OF = {"n_ustar_floor": "ustar_floor_used", "n_ra_cap": "ra_cap_used",
+            "n_ra_height_raised": "ra_height_raised", "n_hno3_rc_floor": "rc_floor_used_HNO3"}
+_HOUR = np.timedelta64(1, "h")
+
+
+def land_use_history(catalogue) -> tuple:
+    """The declared land-use changes of the catalogue's sites, as the key of the stages
+    that follow them: ``((site, land_use, ((date, from, to), ...)), ...)`` for the sites
+    with at least one change (dates ISO text, in date order).  A site whose
+    ``land_use`` is set otherwise by an override (a what-if of the apps) is left out:
+    the override asks for that surface in every hour."""
+    out = []
+    for s in catalogue:
+        ch = tuple((c.date.isoformat(), c.before, c.after)
+                   for c in getattr(s, "changes", ()) if c.what == "land_use")
+        if ch and ch[-1][2] == s.land_use:   # a what-if land_use override: not followed
+            out.append((s.id, s.land_use, ch))
+    return tuple(out)
+
+
+def collector_history(catalogue) -> tuple:
+    """``((site, collector, ((date, from, to), ...)), ...)`` of the collector changes.
+    A site whose collector is set otherwise by an override (``[sites.<id>] collector``)
+    is left out: the override asks for that collector in every period."""
+    out = []
+    for s in catalogue:
+        ch = tuple((c.date.isoformat(), c.before, c.after)
+                   for c in getattr(s, "changes", ()) if c.what == "collector")
+        if ch and ch[-1][2] == s.collector:
+            out.append((s.id, s.collector, ch))
+    return tuple(out)
+
+
+def _segments(changes):
+    """(instants [datetime64 ns], classes): class k is in force from instant k-1 (UTC
+    midnight of the change's date) to instant k."""
+    instants = np.array([np.datetime64(d, "ns") for d, _, _ in changes])
+    classes = [changes[0][1]] + [to for _, _, to in changes]
+    return instants, classes
+
+
+def earlier_classes(history) -> dict:
+    """site -> the classes of its own surface before its last change (not its land use)."""
+    out = {}
+    for site, own, changes in history:
+        _, classes = _segments(changes)
+        out[site] = tuple(dict.fromkeys(c for c in classes if c != own))
+    return out
+
+
+def history_catalogue(catalogue, history):
+    """The catalogue with each site's earlier classes added to its receptors (computed
+    with the class defaults, as declared receptors are)."""
+    from .io.sites import SiteCatalogue
+    extra = earlier_classes(history)
+    sites = []
+    for s in catalogue:
+        add = tuple(c for c in extra.get(s.id, ()) if c not in s.surfaces)
+        sites.append(dataclasses.replace(s, receptors=tuple(s.receptors) + add) if add else s)
+    return SiteCatalogue(sites, catalogue.path)
+
+
+def class_in_force(times, changes) -> tuple:
+    """Index of the class in force over each hour and the classes.
+
+    Parameters
+    ----------
+    times : ndarray of datetime64
+        Ends of the hours (UTC).
+    changes : tuple of (date, from, to)
+        The site's land-use (or collector) changes in date order.
+
+    Returns
+    -------
+    (ndarray of int, list of str)
+        The hour starting at or after a change's instant is under its ``to`` class.
+    """
+    instants, classes = _segments(changes)
+    start = np.asarray(times).astype("datetime64[ns]") - _HOUR
+    return np.searchsorted(instants, start, side="right"), classes
+
+
+def describe(changes) -> str:
+    """``conifer_forest until 2014-04-01, grass after``."""
+    parts = [f"{frm} until {d}" for d, frm, _ in changes]
+    return ", ".join(parts) + f", {changes[-1][2]} after"
+
+
+def _moved(a, dims, first=("site", "receptor")):
+    axes = [dims.index(d) for d in first]
+    return np.moveaxis(a, axes, range(len(axes)))
+
+
+def in_force(vel: xr.Dataset, history, receptors, real_active=None) -> xr.Dataset:
+    """The velocities with each site's own surface under its class in force.
+
+    Parameters
+    ----------
+    vel : xarray.Dataset
+        Velocities (site, receptor, time) computed on the receptors and the earlier
+        classes of the sites (:func:`history_catalogue`).
+    history : tuple
+        :func:`land_use_history`.
+    receptors : sequence of str
+        The receptors of the result (the earlier classes that are not among them are
+        dropped once used).
+    real_active : xarray.DataArray, optional
+        (site, receptor) the pairs the sites ask for: the pairs computed for a history
+        only are put back to "not computed" (NaN, 0, false), as
+        :func:`workbench.stages.wanted_pairs` leaves them.
+
+    Returns
+    -------
+    xarray.Dataset
+        Every (site, receptor, time) variable on `receptors`, the site's own row taken
+        hour by hour from the class in force; ``land_use_in_force`` (site, receptor,
+        time) [flag] the class of each hour (a declared receptor: its own); the counts
+        of :data:`COUNT_OF` counted again over those hours.
+    """
+    from .stages import fill_value
+    recs = [str(r) for r in vel["receptor"].values]
+    sites = [str(s) for s in vel["site"].values]
+    out_r = [str(r) for r in receptors]
+    keep = np.array([recs.index(r) for r in out_r], dtype=int)
+    times = vel["time"].values
+    n_t = times.size
+    # (site, out receptor) -> per-hour index of the source receptor in `recs`
+    take = {}
+    code = np.empty((len(sites), len(out_r), n_t), np.int8)
+    code[...] = np.array([CLASSES.index(r) for r in out_r], np.int8)[None, :, None]
+    notes = []
+    for site, own, changes in history:
+        if site not in sites or own not in out_r:
+            continue
+        k, classes = class_in_force(times, changes)
+        src = np.array([recs.index(c) for c in classes])[k]
+        i, j = sites.index(site), out_r.index(own)
+        take[(i, j)] = src
+        code[i, j] = np.array([CLASSES.index(c) for c in classes], np.int8)[k]
+        notes.append(f"{site}: surface {describe(changes)}")
+    hours = np.arange(n_t)
+    pairs_off = None
+    if real_active is not None:
+        ra = real_active.sel(site=sites, receptor=out_r).transpose("site", "receptor").values
+        act = (vel["active"].transpose("site", "receptor").values[:, keep] if "active" in vel
+               else np.ones(ra.shape, bool))
+        pairs_off = act & ~ra.astype(bool)
+    out = {}
+    for name, v in vel.data_vars.items():
+        v = v.variable
+        if "receptor" not in v.dims:
+            out[name] = v
+            continue
+        a = np.array(np.take(np.asarray(v.values), keep, axis=v.dims.index("receptor")))
+        if "site" in v.dims:
+            view = _moved(a, v.dims)                        # (site, receptor, ...)
+            if "time" in v.dims:
+                src = np.asarray(v.values)
+                src_view = _moved(src, v.dims)
+                ti = [d for d in v.dims if d not in ("site", "receptor")].index("time")
+                for (i, j), s_idx in take.items():
+                    got = np.moveaxis(src_view[i], ti + 1, 1)     # (receptor, time, ...)
+                    np.moveaxis(view[i, j], ti, 0)[...] = got[s_idx, hours]
+            if pairs_off is not None and pairs_off.any() and name != "active":
+                view[pairs_off] = fill_value(v.dtype)
+        out[name] = xr.Variable(v.dims, a, dict(v.attrs))
+    if take:
+        for n_name, flag in COUNT_OF.items():
+            if n_name in out and flag in out and out[flag].dims == ("site", "receptor", "time"):
+                n = np.asarray(out[flag].values).sum(axis=-1).astype(out[n_name].dtype)
+                out[n_name] = xr.Variable(out[n_name].dims, n, out[n_name].attrs)
+        for name in ("displacement_height", "roughness_length", "canopy_height"):
+            if name in out and "time" not in out[name].dims:
+                out[name].attrs["history"] = ("of the site's surface as it is now; the hours "
+                                              "before a land-use change: see land_use_in_force")
+    if real_active is not None and "active" in out:
+        out["active"] = xr.Variable(("site", "receptor"), ra.astype(bool), out["active"].attrs)
+    out["land_use_in_force"] = xr.Variable(("site", "receptor", "time"), code, {
+        "long_name": "land-use class of the surface over each hour",
+        "flag_values": np.arange(len(CLASSES), dtype=np.int8),
+        "flag_meanings": " ".join(CLASSES)})
+    coords = {k: c.variable for k, c in vel.coords.items() if "receptor" not in c.dims}
+    coords["receptor"] = out_r
+    ds = xr.Dataset(out, coords=coords, attrs=dict(vel.attrs))
+    if notes:
+        ds.attrs["land_use_history"] = "; ".join(notes)
+    return ds
+
+
+def period_notes(catalogue, sites, receptors, periods) -> np.ndarray:
+    """(site, receptor, period) words for the dry rows of a site's own surface whose
+    periods are not all under its land use: ``surface conifer_forest until 2014-04-01,
+    grass after`` (a period that straddles a change), ``surface conifer_forest``
+    (a period wholly under an earlier class); "" elsewhere."""
+    n_p = len(periods)
+    out = np.full((len(sites), len(receptors), n_p), "", dtype=object)
+    p0 = periods["start"].to_numpy().astype("datetime64[ns]")
+    p1 = periods["end"].to_numpy().astype("datetime64[ns]")
+    for site, own, changes in land_use_history(catalogue):
+        if site not in sites or own not in receptors:
+            continue
+        i, j = list(sites).index(site), list(receptors).index(own)
+        instants, classes = _segments(changes)
+        k0 = np.searchsorted(instants, p0, side="right")     # class at the period's start
+        k1 = np.searchsorted(instants, p1, side="left")      # ... at its end
+        for k in range(n_p):
+            a, b = int(k0[k]), int(k1[k])
+            if a == b:
+                if classes[a] != own:
+                    out[i, j, k] = f"surface {classes[a]} (land_use before {changes[a][0]})"
+            else:
+                out[i, j, k] = "surface " + describe(changes[a:b])
+    return out
+
+
+def collector_shares(catalogue, sites, periods) -> tuple:
+    """(site, period) share of each period's hours under a bulk collector [1] and the
+    words for the periods under a collector other than the site's (or straddling a
+    change): ``collector bulk until 2011-01-01, wet_only after``."""
+    n_p = len(periods)
+    share = np.array([[1.0 if catalogue[s].collector == "bulk" else 0.0] * n_p
+                      for s in sites]).reshape(len(sites), n_p)
+    words = np.full((len(sites), n_p), "", dtype=object)
+    p0 = periods["start"].to_numpy().astype("datetime64[ns]")
+    p1 = periods["end"].to_numpy().astype("datetime64[ns]")
+    for site, now, changes in collector_history(catalogue):
+        if site not in sites:
+            continue
+        i = list(sites).index(site)
+        instants, classes = _segments(changes)
+        bounds = np.concatenate([[np.datetime64("1700-01-01", "ns")], instants,
+                                 [np.datetime64("2250-01-01", "ns")]])
+        length = (p1 - p0).astype(float)
+        bulk = np.zeros(n_p)
+        for k, c in enumerate(classes):        # the few segments, each over every period
+            over = (np.minimum(p1, bounds[k + 1]) - np.maximum(p0, bounds[k])).astype(float)
+            if c == "bulk":
+                bulk += np.clip(over, 0, None)
+        share[i] = np.where(length > 0, bulk / np.where(length > 0, length, 1), share[i])
+        k0 = np.searchsorted(instants, p0, side="right")
+        k1 = np.searchsorted(instants, p1, side="left")
+        for k in range(n_p):
+            a, b = int(k0[k]), int(k1[k])
+            if a != b:
+                words[i, k] = "collector " + describe(changes[a:b])
+            elif classes[a] != now:
+                words[i, k] = f"collector {classes[a]} (before {changes[a][0]})"
+    return share, words
