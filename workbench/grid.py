@@ -35,6 +35,7 @@ from .drycomponents import dry_components, dry_rows, prepare_velocities
 from .errors import WorkbenchError
 from .grid_io import Grid, block_catalogue, cell_ids, read_block
 from .grid_scratch import block_major
+from .io.common import release_free_memory
 from .io.sites import SiteCatalogue
 from .units import element_deposition_in
 
@@ -276,6 +277,10 @@ def block_result(grid: Grid, ys: slice, xs: slice, dry_options, budget_options: 
                 _one_call(out, names, SiteCatalogue(members[k:k + CELLS_PER_CALL]), met, air,
                           pos, which, n_p, dry_options, budget_options, periods,
                           fixed_velocity)
+        del met, air, flagged
+        # the block's hourly arrays back to the system, as a block of sites does: a
+        # worker running block after block kept the freed heap (docs/performance.md)
+        release_free_memory()
     return out.reshape(len(names), n_p, ny, nx)
 
 
