@@ -9,10 +9,13 @@ and as NetCDF3 (classic, as the demo writes it).  A measurement, not a test.
     python benchmarks/grid_memory.py --make DIR --n 20 --n 60 --n 100
     python benchmarks/grid_memory.py --run DIR --n 20 --n 60 --what block
     python benchmarks/grid_memory.py --run DIR --n 20 --n 60 --what grid
+    python benchmarks/grid_memory.py --run DIR --n 20 --n 60 --n 100 --what dask
 
 Each measurement runs in a fresh process (`--child`).  ``--what read``: `read_block` of
 the first block alone; ``block``: `block_result` of the first block; ``grid``: every
-block in process (`compute_grid`).  Printed: the process's peak resident set (VmHWM),
+block in process (`compute_grid`); ``dask``: every block as a dask task on a local cluster
+of 2 single-threaded worker processes (as ``workbench grid --workers 2``), each worker's
+idle resident set before the blocks and its peak (VmHWM) after them.  Printed: the process's peak resident set (VmHWM),
 its resident set before the measured part (imports and the open grid), the difference
 ("above base"), the resident set after each block (``grid``: growth across blocks), CPU,
 and the load average, then the ratio of each size's peak above base to the first size's; ``--trace`` adds the tracemalloc peak (slower).  Report ratios of
@@ -83,6 +86,8 @@ def child(folder: Path, what: str, trace: bool, block: int):
         read_block(grid, ys, xs, block_catalogue(grid, ys, xs))
     elif what == "block":
         g.block_result(grid, ys, xs, *args)
+    elif what == "dask":
+        workers = _on_dask(grid, args, block, out_workers := {})
     else:
         g.compute_grid(grid, *args, block=block,
                        progress=lambda _: after.append(round(_status("VmRSS"))))
@@ -96,7 +101,58 @@ def child(folder: Path, what: str, trace: bool, block: int):
         out["traced_peak_mb"] = round(tracemalloc.get_traced_memory()[1] / 1e6)
     if after:
         out["rss_after_blocks_mb"] = after
+    if what == "dask":
+        out.update(workers=workers, **out_workers)
     print(json.dumps(out))
+
+
+def _worker_status():
+    """(VmHWM, VmRSS) of this worker process [MB], and its pid."""
+    return {"pid": os.getpid(), "peak_mb": round(_status("VmHWM")),
+            "rss_mb": round(_status("VmRSS"))}
+
+
+def _on_dask(grid, args, block, out: dict) -> int:
+    """Every block as a dask task on a local cluster of 2 single-threaded worker
+    processes (:func:`workbench.blocks.start_client`, as ``workbench grid --workers
+    2``); `out` gets each worker's resident set when idle before the blocks
+    (``worker_base_mb``), its peak (VmHWM) after them (``worker_peak_mb``), the
+    difference, the tasks' count per worker and the blocks."""
+    from workbench import grid as g
+    from workbench.blocks import close_client, start_client
+    client = start_client(2)
+    try:
+        client.wait_for_workers(2)
+        client.run(_warm)            # imports and one tiny engine call before the base line
+        base = client.run(_worker_status)
+        with g.staged(grid, block) as staged:
+            names, arr = g.compute_grid(staged, *args, block=block, use_dask=True)
+            client.compute(arr).result()
+        done = client.run(_worker_status)
+        tasks = client.run(_tasks_done)
+    finally:
+        close_client(client)
+    keys = sorted(base)
+    out["worker_base_mb"] = [base[k]["rss_mb"] for k in keys]
+    out["worker_peak_mb"] = [done[k]["peak_mb"] for k in keys]
+    out["worker_peak_above_base_mb"] = [done[k]["peak_mb"] - base[k]["rss_mb"] for k in keys]
+    out["worker_rss_after_mb"] = [done[k]["rss_mb"] for k in keys]
+    out["worker_tasks"] = [tasks[k] for k in keys]
+    out["blocks"] = sum(len(r) for r in g.blocks(grid.shape, block))
+    return len(keys)
+
+
+def _tasks_done(dask_worker=None):
+    """Tasks this worker ran (its transition log of 'memory' states)."""
+    return sum(1 for t in getattr(dask_worker, "state", dask_worker).log if len(t) > 2
+               and t[2] == "memory") if dask_worker is not None else -1
+
+
+def _warm():
+    """Import what a block imports (the preload of a local cluster does most of it)."""
+    import workbench.drydep  # noqa: F401
+    import workbench.grid  # noqa: F401
+    return True
 
 
 def main(argv=None) -> int:
@@ -106,7 +162,7 @@ def main(argv=None) -> int:
     p.add_argument("--n", type=int, action="append", help="cells a side (repeatable)")
     p.add_argument("--months", type=int, default=3)
     p.add_argument("--layout", choices=("nc4", "nc3"), default="nc4")
-    p.add_argument("--what", choices=("read", "block", "grid"), default="block")
+    p.add_argument("--what", choices=("read", "block", "grid", "dask"), default="block")
     p.add_argument("--block", type=int, default=0, help="cells a block side (0: the default)")
     p.add_argument("--trace", action="store_true")
     p.add_argument("--repeat", type=int, default=1)

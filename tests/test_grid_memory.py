@@ -188,3 +188,102 @@ def test_no_block_outlives_its_block(flawed, monkeypatch):
                               block=2)
     assert len(alive) == 4 and alive == [0] * 4
     assert arr.shape == (len(names), len(make_periods(flawed)), 4, 4)
+
+
+def _maps(grid):
+    return compute_grid(grid, DryOptions(), BudgetOptions(), make_periods(grid), block=2)[1]
+
+
+def test_the_engine_makes_only_the_vd_that_the_maps_read(flawed, monkeypatch):
+    """A call of the engine on a slice of 128 cells made about 50 hourly variables
+    (resistances, paths of Rc, the surface layer's and canopy's diagnostics, counts)
+    and set a block's peak (traced 308 MB on a 19 x 19 block, docs/performance.md).
+    The maps read the Vd of the air grid's species only: the engine now makes those
+    alone, and the maps are the same bits as when it makes every variable."""
+    from workbench import drydep
+    made = []
+    real = drydep.velocities
+
+    def spy(*a, **k):
+        got = real(*a, **k)
+        made.append(set(got.data_vars))
+        return got
+    monkeypatch.setattr(drydep, "velocities", spy)
+    lean = _maps(flawed)
+    wanted = {f"vd_{sp}" for sp in flawed.species if sp in G.DRY_SPECIES}
+    assert made and all(m == wanted for m in made)
+    made.clear()
+    monkeypatch.setattr(G, "grid_outputs", lambda species: None)     # every variable
+    full = _maps(flawed)
+    assert made and all(len(m) > 3 * len(wanted) and wanted < m for m in made)
+    assert lean.tobytes() == full.tobytes()
+
+
+@pytest.mark.parametrize("site_blocks", [False, True, "dask"])
+def test_velocities_outputs_are_the_same_bits(flawed, monkeypatch, site_blocks):
+    """``velocities(..., outputs=)`` gives the variables asked for (hourly, (site,
+    time) and the counts alike) as the full call gives them, in one call, in the
+    threaded blocks of whole sites (`drydep.siteblocks`) and on a dask-backed met."""
+    from workbench import drydep, threads
+    from workbench.drydep import siteblocks
+    ys, xs = slice(0, 4), slice(0, 4)
+    cat = block_catalogue(flawed, ys, xs)
+    met, _, _ = read_block(flawed, ys, xs, cat)
+    if site_blocks == "dask":
+        pytest.importorskip("dask")
+        met = met.chunk({"time": 200})
+    elif site_blocks:
+        monkeypatch.setattr(siteblocks, "SITE_BLOCK_MIN_ELEMENTS", 1)
+        monkeypatch.setattr(siteblocks, "SITE_BLOCK_ELEMENTS", 3 * met.sizes["time"])
+        threads.set_threads(2)
+    try:
+        full = drydep.velocities(met, cat.surfaces(), DryOptions())
+        ask = {"vd_SO2", "vd_pNO3", "ra", "met_friction_velocity", "n_ra_cap", "active"}
+        part = drydep.velocities(met, cat.surfaces(), DryOptions(), outputs=ask)
+    finally:
+        threads.set_threads(None)
+    assert set(part.data_vars) == ask
+    part, full = part.compute(), full.compute()
+    for name in ask:
+        xr.testing.assert_identical(part[name], full[name])
+        assert part[name].values.tobytes() == full[name].values.tobytes(), name
+
+
+def test_a_cells_intermediates_are_shown_on_demand(flawed):
+    """What the gridded run leaves out is computed for one chosen cell: every variable
+    of the engine, its Vd the bits of the cell in a block."""
+    cell = G.cell_velocities(flawed, 1, 2)
+    assert {"ra", "rb_SO2", "rc_SO2", "friction_velocity", "surface_wet",
+            "n_ra_cap"} <= set(cell.data_vars)
+    assert list(cell["site"].values) == ["j1i2"]
+    ys, xs = slice(1, 2), slice(2, 3)
+    cat = block_catalogue(flawed, ys, xs)
+    met, air, _ = read_block(flawed, ys, xs, cat)
+    vd, _, _ = G.dry_for_sites(met, air, cat, DryOptions(), BudgetOptions(),
+                               make_periods(flawed))
+    for name in vd.data_vars:
+        assert cell[name].values.tobytes() == vd[name].values.tobytes(), name
+    with pytest.raises(G.GridRunError, match="outside the grid"):
+        G.cell_velocities(flawed, 9, 0)
+
+
+def test_a_block_gives_its_freed_memory_back(flawed, monkeypatch):
+    """A dask worker runs block after block: the freed heap of each block was kept
+    (glibc), so a worker's peak rose with the blocks it had run.  Each block now
+    returns it when its hourly inputs are gone, as a block of sites does."""
+    calls, refs = [], []
+    real = G.read_block
+
+    def read(*a, **k):
+        got = real(*a, **k)
+        refs.extend(weakref.ref(x) for x in got[:2])
+        return got
+
+    def trim():
+        calls.append(sum(r() is not None for r in refs))
+        return True
+    monkeypatch.setattr(G, "read_block", read)
+    monkeypatch.setattr(G, "release_free_memory", trim)
+    G.block_result(flawed, slice(0, 2), slice(0, 2), DryOptions(), BudgetOptions(),
+                   make_periods(flawed))
+    assert calls == [0]                 # once, with the block's met and air let go

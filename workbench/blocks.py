@@ -24,9 +24,12 @@ the order in which blocks finish.
 Every site is computed on its own in the pipeline (screening, wet periods, velocities,
 dry fluxes and the budget are per site), so a block run gives the numbers of a whole
 run for every (site, receptor) pair a site asks for (tests/test_blocks.py).  Pairs no
-site asks for (``active`` false) hold no values in block mode (nor in a whole run:
-``stages.wanted_pairs``); budget.csv and summary.csv carry the active
-pairs only and are the same.
+site asks for (``active`` false) are computed in neither (``stages.wanted_pairs``): no
+velocity there.  Each block lays its budget on the network's receptor axis
+(``Study.run(layout=)``), so such a pair holds what a whole run gives it (the site's
+wet deposition, dry components missing with Vd coverage 0, the total partial), not a
+fill value: budget.nc is the whole run's, variable by variable
+(tests/test_blocks_layout.py), as budget.csv and summary.csv are.
 """
 from __future__ import annotations
 
@@ -382,8 +385,9 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
     Returns
     -------
     workbench.pipeline.Result
-        As a whole run's; ``velocities`` is None unless `keep_velocities`, and the
-        pairs no site asks for hold no values.
+        As a whole run's (the budget on the network's receptors, every pair as a
+        whole run gives it); ``velocities`` is None unless `keep_velocities` (the
+        pairs no site asks for hold no velocity, as in a whole run).
     """
     if isinstance(study_or_inputs, Study):
         whole = study_or_inputs
@@ -403,7 +407,8 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
     wanted = blocks_with_met(wanted_blocks(whole.catalogue(), receptors, block_sites),
                              inputs, receptors)
     blocks = [sites for sites, _ in wanted]
-    block_args = [{**args, "receptors": recs} for _, recs in wanted]
+    # each block computes its own receptors and lays its budget on the network's
+    block_args = [{**args, "receptors": recs, "layout": tuple(receptors)} for _, recs in wanted]
     precip = inputs.precipitation
     psites = precip["site"].values.astype(str) if precip is not None else None
     positions = None

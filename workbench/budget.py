@@ -224,6 +224,30 @@ def combine_status(statuses):
     return out, ~np.isin(out, ("flagged", "missing"))
 
 
+def _dry_on_receptors(dry: xr.Dataset, receptors) -> xr.Dataset:
+    """`dry` on the receptor axis `receptors`, a receptor it lacks being one on which no
+    velocity was computed (a pair no site of a block asks for, ``Study.run(layout=)``):
+    what the dry chain gives for a pair with no Vd in any hour, so that such a pair
+    reads as in a whole run (tests/test_blocks_layout.py).  Its fractions of hours with
+    a Vd (``vd_coverage``, ``flux_coverage``, ``*_flux_coverage``) are 0; every other
+    value NaN (dtypes of flags kept false)."""
+    fill = {}
+    for name, v in dry.data_vars.items():
+        if "receptor" not in v.dims:
+            continue
+        if name in ("vd_coverage", "flux_coverage") or name.endswith("_flux_coverage"):
+            fill[name] = 0.0
+        elif v.dtype.kind == "b":
+            fill[name] = False
+    out = dry.reindex(receptor=list(receptors), fill_value={**{n: np.nan for n in dry.data_vars
+                                                                 if "receptor" in dry[n].dims},
+                                                              **fill})
+    for name in fill:
+        if dry[name].dtype.kind == "b":
+            out[name] = out[name].astype(bool)
+    return out
+
+
 def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods: pd.DataFrame,
              options: BudgetOptions, receptors, season_cov=None):
     """Wet + dry components per site, receptor and period, with totals and status.
@@ -284,7 +308,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
         w_frac = np.fmin(np.fmin(w.variables["gauge_fraction"].values, w.variables["coverage_fraction"].values),
                          w.variables["valid_precip_fraction"].values)
     if dry is not None:
-        dr = dry if _same_axis(dry, "receptor", receptors) else dry.reindex(receptor=list(receptors))
+        dr = dry if _same_axis(dry, "receptor", receptors) else _dry_on_receptors(dry, receptors)
         d_species = list(dr.variables["species"].values)
         d_dep, d_cov = dr.variables["deposition"].values, dr.variables["coverage"].values
         d_vdc, d_fs, d_meas = dr.variables["vd_coverage"].values, dr.variables["vd_filled_share"].values, dr.variables["measured"].values

@@ -35,6 +35,7 @@ from .drycomponents import dry_components, dry_rows, prepare_velocities
 from .errors import WorkbenchError
 from .grid_io import Grid, block_catalogue, cell_ids, read_block
 from .grid_scratch import block_major
+from .io.common import release_free_memory
 from .io.sites import SiteCatalogue
 from .units import element_deposition_in
 
@@ -132,7 +133,10 @@ def dry_for_sites(met, air, catalogue: SiteCatalogue, dry_options, budget_option
     fixed_velocity = dict(fixed_velocity or {})
     surf = catalogue.surfaces()
     need = [sp for sp in DRY_SPECIES if sp in air and sp not in fixed_velocity]
-    vd = velocities(met, surf, _only(dry_options, need)) if need else None
+    # only the Vd of these species (every other output of the engine, a cell's
+    # diagnostics, is for cell_velocities): the same bits, a fraction of the memory
+    vd = velocities(met, surf, _only(dry_options, need),
+                    outputs=grid_outputs(need)) if need else None
     receptors = [str(r) for r in surf["receptor"].values]
     template = xr.DataArray(np.full((len(catalogue), len(receptors), met.sizes["time"]), np.nan),
                             dims=("site", "receptor", "time"),
@@ -151,6 +155,51 @@ def dry_for_sites(met, air, catalogue: SiteCatalogue, dry_options, budget_option
         return vd, vel, None
     rows = dry_rows(air, vel, met, catalogue.ids, budget_options)
     return vd, vel, dry_components(rows, periods)
+
+
+def grid_outputs(species) -> frozenset:
+    """The variables of :func:`workbench.drydep.velocities` that the maps of `species`
+    read: their Vd (:func:`workbench.drycomponents.prepare_velocities` fills them;
+    nothing else of the engine's hourly output enters a map).
+
+    >>> sorted(grid_outputs(["SO2", "pSO4"]))
+    ['vd_SO2', 'vd_pSO4']
+    """
+    return frozenset(f"vd_{sp}" for sp in species)
+
+
+def cell_velocities(grid: Grid, y: int, x: int, dry_options=None, outputs=None) -> xr.Dataset:
+    """Every hourly output of the engine for one cell (row `y`, column `x`): the
+    intermediates a gridded run does not keep (Ra, Rb, Rc and its paths, u*, L, the
+    canopy state, the counts; docs/methods_dry.md), for inspecting a cell.  The cell's
+    Vd are the bits of its maps' inputs (each cell is computed on its own).
+
+    Parameters
+    ----------
+    grid : Grid
+    y, x : int
+        Row and column of the cell [-].
+    dry_options : DryOptions, optional
+    outputs : collection of str, optional
+        As for :func:`workbench.drydep.velocities` (default: every variable).
+
+    Returns
+    -------
+    xarray.Dataset
+        (site, receptor, time): the one site ``j<y>i<x>`` on its class.
+    """
+    from .drydep import DryOptions, velocities
+    ny, nx = grid.shape
+    if not (0 <= int(y) < ny and 0 <= int(x) < nx):
+        raise GridRunError(f"cell (y={y}, x={x}) is outside the grid of {ny} x {nx} cells")
+    ys, xs = slice(int(y), int(y) + 1), slice(int(x), int(x) + 1)
+    cat = block_catalogue(grid, ys, xs)
+    if not len(cat):
+        raise GridRunError(f"cell (y={y}, x={x}) has no land-use class: nothing is computed "
+                           "there")
+    met, air, _ = read_block(grid, ys, xs, cat)
+    opt = _only(dry_options or DryOptions(), [sp for sp in DRY_SPECIES if sp in air])
+    return velocities(met, cat.surfaces(), opt, outputs=outputs)
 
 
 def _only(dry_options, species):
@@ -228,6 +277,10 @@ def block_result(grid: Grid, ys: slice, xs: slice, dry_options, budget_options: 
                 _one_call(out, names, SiteCatalogue(members[k:k + CELLS_PER_CALL]), met, air,
                           pos, which, n_p, dry_options, budget_options, periods,
                           fixed_velocity)
+        del met, air, flagged
+        # the block's hourly arrays back to the system, as a block of sites does: a
+        # worker running block after block kept the freed heap (docs/performance.md)
+        release_free_memory()
     return out.reshape(len(names), n_p, ny, nx)
 
 

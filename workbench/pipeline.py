@@ -451,13 +451,21 @@ class Study:
 
     # ---------------------------------------------------------------- the budget
     def run(self, wet_options=None, dry_options=None, budget_options=None, fixed_velocity=None,
-            resolution="year", start=None, end=None, overrides=None, receptors=None) -> Result:
+            resolution="year", start=None, end=None, overrides=None, receptors=None,
+            layout=None) -> Result:
         """Compute the budget at a resolution, the yearly budget and the span mean.
 
         `receptors` (a sequence of receptor surfaces) computes those for every site,
         with the same numbers as in the whole run: an app showing one receptor at a
         time computes what it shows.  Default: the pairs the sites ask for, each site
         on its own receptors (the others NaN; see :func:`workbench.stages.wanted_pairs`).
+
+        `layout` (a sequence of receptor surfaces holding every receptor computed) is
+        the receptor axis of the budget, when it is not the computed one: a block of
+        sites (:mod:`workbench.blocks`) computes its own receptors and puts its budget
+        on the network's, so that a pair none of its sites asks for holds what a whole
+        run of the network gives there (wet deposition, dry components missing: no
+        deposition velocity), not a fill value.
         """
         from .drydep import DryOptions
         from .wet import WetOptions
@@ -476,6 +484,12 @@ class Study:
         years = self._periods_node("year", start, end, hy)
         cat = self._catalogue_node(overrides)
         shown = tuple(receptors) if receptors is not None else tuple(every)
+        if layout is not None:
+            layout = tuple(str(r) for r in layout)
+            lost = [r for r in shown if r not in layout]
+            if lost:
+                raise ValueError(f"layout {list(layout)} leaves out receptors {lost}")
+            shown = layout
         opts = {"wet": wet_options, "dry": dry_options, "budget": budget_options}
 
         vel = (self._velocities_node(dry_options, overrides, receptors)

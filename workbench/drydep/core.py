@@ -24,6 +24,8 @@ function does them itself.  Steps:
 """
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 import xarray as xr
 
@@ -72,6 +74,31 @@ MET_VARIABLES = ("wind_speed", "temperature", "relative_humidity", "solar_radiat
 #: (:func:`workbench.drydep.particle_fractions.hourly_sampler_fractions`).
 AIR_DERIVED = ("nh3_so2_ratio", "nh3_acid_ratio") + tuple(f"coarse_fraction_{sp}" for sp in
                                          ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa"))
+#: The hours counted of :func:`velocities` (site, receptor or site) and the hourly flag
+#: each counts.
+COUNT_FLAGS = {"n_ustar_floor": "ustar_floor_used", "n_ra_cap": "ra_cap_used",
+               "n_theta_star_limited": "theta_star_limited",
+               "n_pressure_estimated": "pressure_estimated",
+               "n_ra_height_raised": "ra_height_raised", "n_hno3_rc_floor": "rc_floor_used_HNO3",
+               "n_cloud_default": "cloud_cover_source"}
+
+
+def _made(outputs):
+    """The hourly variables made for `outputs` (None: every one): those asked for and
+    the flags of the counts asked for (dropped once counted, :func:`_asked`)."""
+    if outputs is None:
+        return None
+    return frozenset(outputs) | {COUNT_FLAGS[n] for n in outputs if n in COUNT_FLAGS}
+
+
+def _asked(ds: xr.Dataset, outputs) -> xr.Dataset:
+    """`ds` without the variables made only to be counted."""
+    if outputs is None:
+        return ds
+    extra = [n for n in ds.data_vars if n not in outputs]
+    return ds.drop_vars(extra) if extra else ds
+
+
 _PREV = "_previous_precipitation"
 _FROST = "_autumn_frost_seen"
 
@@ -128,7 +155,7 @@ def _mode_lookup(cache, opt, mode):
 def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: list,
             cache=None, met_surf: xr.Dataset | None = None,
             summaries: bool = False, particle_parts: dict | None = None,
-            rows: slice | None = None) -> xr.Dataset:
+            rows: slice | None = None, outputs=None) -> xr.Dataset:
     """All hourly quantities for one in-memory block of the met Dataset.
 
     Parameters
@@ -157,6 +184,10 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         from those rows, the attributes from every site.
     rows : slice, optional
         The sites of `block` among those of `particle_parts`.
+    outputs : collection of str, optional
+        The output variables made (default: every one): the others are neither copied
+        into the result nor, where only an output needs them, computed
+        (:func:`velocities`).
 
     Returns
     -------
@@ -272,6 +303,11 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
 
     out = {}
     land = rec(np.array(receptors, dtype=object))
+
+    made = _made(outputs)
+
+    def keep(name):  # an output variable asked for or counted (outputs None: every one)
+        return made is None or name in made
     def gas_parts(opt):
         scheme = _gas.get_scheme(opt.gas_scheme)
         reads = getattr(scheme, "READS", ("lai", "cos_zenith"))  # LAI and sun when read
@@ -312,8 +348,10 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         for g in opt.gases:
             rb = gp[f"rb|{g}"]
             comp = {k.split("|")[0]: v for k, v in gp.items() if k.endswith(f"|{g}")}
-            out[f"rb_{g}"] = srt(rb, "s m-1", f"quasi-laminar resistance of {g}")
-            out[f"rc_{g}"] = srt(comp["rc"], "s m-1", f"surface resistance of {g} ({scheme.NAME})")
+            if keep(f"rb_{g}"):
+                out[f"rb_{g}"] = srt(rb, "s m-1", f"quasi-laminar resistance of {g}")
+            if keep(f"rc_{g}"):
+                out[f"rc_{g}"] = srt(comp["rc"], "s m-1", f"surface resistance of {g} ({scheme.NAME})")
             if opt.components:  # the scheme's own paths, gas-independent ones once
                 shared = getattr(scheme, "SHARED_PATHS", ())
                 names = getattr(scheme, "PATH_NAMES", {})
@@ -321,27 +359,36 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                     unit = "1" if path == "stomatal_blocking" else "s m-1"
                     label = names.get(path, f"{path.replace('_', ' ')} resistance")
                     if path in shared:
-                        out[f"rc_{path}"] = srt(comp[path], unit, label)
+                        if keep(f"rc_{path}"):
+                            out[f"rc_{path}"] = srt(comp[path], unit, label)
                     else:
-                        out[f"rc_{g}_{path}"] = srt(comp[path], unit, f"{label} of {g}")
+                        if keep(f"rc_{g}_{path}"):
+                            out[f"rc_{g}_{path}"] = srt(comp[path], unit, f"{label} of {g}")
             if "codeposition_used" in comp and opt.so2_codeposition:
-                out["so2_codeposition_used"] = srt(comp["codeposition_used"] & valid, "1",
-                                                   "SO2 non-stomatal resistance from the "
-                                                   "NH3/SO2 ratio (co-deposition)")
+                if keep("so2_codeposition_used"):
+                    out["so2_codeposition_used"] = srt(comp["codeposition_used"] & valid, "1",
+                                                       "SO2 non-stomatal resistance from the "
+                                                       "NH3/SO2 ratio (co-deposition)")
             if g == "HNO3":
-                out["rc_floor_used_HNO3"] = srt(comp["floor_used"] & valid, "1",
-                                                "HNO3 surface resistance raised to its floor")
+                if keep("rc_floor_used_HNO3"):
+                    out["rc_floor_used_HNO3"] = srt(comp["floor_used"] & valid, "1",
+                                                    "HNO3 surface resistance raised to its floor")
             vd = comp["vd"]
             extra = {"note": NH3_NOTE} if g == "NH3" else {}
-            out[f"vd_{g}"] = srt(vd, "m s-1", f"dry deposition velocity of {g}", **extra)
+            if keep(f"vd_{g}"):
+                out[f"vd_{g}"] = srt(vd, "m s-1", f"dry deposition velocity of {g}", **extra)
         if "nh3bd|vd" in gp:
-            out["vd_NH3_bidirectional"] = srt(
-                gp["nh3bd|vd"], "m s-1", "NH3 deposition velocity of the canopy compensation "
-                "point model (net flux = C vd - nh3_emission_flux)", note=NH3_BIDIRECTIONAL_NOTE)
-            out["nh3_emission_flux"] = srt(gp["nh3bd|emission"], "mol m-2 s-1",
-                                           "NH3 emission term of the compensation point model")
-            out["nh3_compensation_point"] = srt(gp["nh3bd|chi_s"], "mol m-3",
-                                                "NH3 stomatal compensation point chi_s")
+            if keep("vd_NH3_bidirectional"):
+                out["vd_NH3_bidirectional"] = srt(
+                    gp["nh3bd|vd"], "m s-1", "NH3 deposition velocity of the canopy compensation "
+                    "point model (net flux = C vd - nh3_emission_flux)",
+                    note=NH3_BIDIRECTIONAL_NOTE)
+            if keep("nh3_emission_flux"):
+                out["nh3_emission_flux"] = srt(gp["nh3bd|emission"], "mol m-2 s-1",
+                                               "NH3 emission term of the compensation point model")
+            if keep("nh3_compensation_point"):
+                out["nh3_compensation_point"] = srt(gp["nh3bd|chi_s"], "mol m-3",
+                                                    "NH3 stomatal compensation point chi_s")
         # each distinct mode once, all of them in one call (shared surface terms); the
         # mass weight of each mode per site (docs/methods_dry_particles.md 10.1)
         if particle_parts is None:
@@ -368,50 +415,57 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             total = 0.0
             for mode, w in weights:
                 total = total + _fractions.broadcast_weight(w) * by_mode[mode]
-            out[f"vd_{sp}"] = srt(total, "m s-1", f"mass-weighted dry deposition velocity of {sp} "
-                                  "(Zhang et al. 2001)", **_blocks.particle_attrs(
-                                      (particle_parts or parts)[sp]))
+            if keep(f"vd_{sp}"):
+                out[f"vd_{sp}"] = srt(total, "m s-1", f"mass-weighted dry deposition velocity of {sp} "
+                                      "(Zhang et al. 2001)", **_blocks.particle_attrs(
+                                          (particle_parts or parts)[sp]))
 
     # --- assemble -----------------------------------------------------------------------------
-    obukhov = np.where(inv_l == 0, np.inf, 1.0 / np.where(inv_l == 0, 1.0, inv_l))
+    def obukhov():
+        return np.where(inv_l == 0, np.inf, 1.0 / np.where(inv_l == 0, 1.0, inv_l))
+
+    # each made only when asked for (in this order: `own` hands arrays out in it)
     base = {
-        "friction_velocity": srt(us_r, "m s-1", "friction velocity over the receptor"),
-        "obukhov_length": srt(obukhov, "m", "Obukhov length over the receptor (inf: neutral)"),
-        "sensible_heat_flux": srt(np.where(valid, h_r, np.nan), "W m-2",
+        "friction_velocity": lambda: srt(us_r, "m s-1", "friction velocity over the receptor"),
+        "obukhov_length": lambda: srt(obukhov(), "m", "Obukhov length over the receptor (inf: neutral)"),
+        "sensible_heat_flux": lambda: srt(np.where(valid, h_r, np.nan), "W m-2",
                                   "sensible heat flux over the receptor, positive upward"),
-        "roughness_length": srt(z0_r, "m", "roughness length for momentum"),
-        "ra": srt(ra, "s m-1", "aerodynamic resistance from the reference height"),
-        "ra_reference_height": srt(z_ref, "m", "height at which Ra is evaluated"),
-        "ra_height_raised": srt(raised, "1", "sampler below d + m z0: Ra taken higher"),
-        "ustar_floor_used": srt(floor_used, "1", "friction velocity raised to its floor"),
-        "ra_cap_used": srt(cap_used, "1", "aerodynamic resistance lowered to its cap"),
-        "seasonal_category": srt(cat, "1", "Wesely seasonal category (1-5)"),
-        "seasonal_source": srt(cat_src, "1", "why this seasonal category",
+        "roughness_length": lambda: srt(z0_r, "m", "roughness length for momentum"),
+        "ra": lambda: srt(ra, "s m-1", "aerodynamic resistance from the reference height"),
+        "ra_reference_height": lambda: srt(z_ref, "m", "height at which Ra is evaluated"),
+        "ra_height_raised": lambda: srt(raised, "1", "sampler below d + m z0: Ra taken higher"),
+        "ustar_floor_used": lambda: srt(floor_used, "1", "friction velocity raised to its floor"),
+        "ra_cap_used": lambda: srt(cap_used, "1", "aerodynamic resistance lowered to its cap"),
+        "seasonal_category": lambda: srt(cat, "1", "Wesely seasonal category (1-5)"),
+        "seasonal_source": lambda: srt(cat_src, "1", "why this seasonal category",
                                codes=str(_seasons.SOURCE)),
-        "surface_wet": srt(wet, "1", "surface wetness used (1 wet, 0 dry)"),
-        "wet_kind": srt(kind, "1", "kind of wetness: 0 dry, 1 dew, 2 rain"),
-        "wetness_source": srt(wet_src, "1", "source of the wetness", codes=str(_wetness.SOURCE)),
-        "met_friction_velocity": sto(us_m, "m s-1", "friction velocity over the wind mast's surface"),
-        "met_sensible_heat_flux": sto(np.where(ok, h_m, np.nan), "W m-2",
+        "surface_wet": lambda: srt(wet, "1", "surface wetness used (1 wet, 0 dry)"),
+        "wet_kind": lambda: srt(kind, "1", "kind of wetness: 0 dry, 1 dew, 2 rain"),
+        "wetness_source": lambda: srt(wet_src, "1", "source of the wetness", codes=str(_wetness.SOURCE)),
+        "met_friction_velocity": lambda: sto(us_m, "m s-1", "friction velocity over the wind mast's surface"),
+        "met_sensible_heat_flux": lambda: sto(np.where(ok, h_m, np.nan), "W m-2",
                                       "sensible heat flux over the wind mast's surface"),
-        "surface_layer_method": sto(np.where(ok, method, np.nan), "1", "how u* and H were found",
+        "surface_layer_method": lambda: sto(np.where(ok, method, np.nan), "1", "how u* and H were found",
                                     codes=str(METHOD)),
-        "theta_star_limited": sto(theta_limited, "1",
+        "theta_star_limited": lambda: sto(theta_limited, "1",
                                   "night theta* reduced so that the stable profile has a root"),
-        "cloud_cover_used": sto(cloud, "1", "cloud cover used"),
-        "cloud_cover_source": sto(cloud_src, "1", "source of the cloud cover",
+        "cloud_cover_used": lambda: sto(cloud, "1", "cloud cover used"),
+        "cloud_cover_source": lambda: sto(cloud_src, "1", "source of the cloud cover",
                                   codes=str(CLOUD_SOURCE)),
-        "pressure_estimated": sto(pressure_estimated, "1",
+        "pressure_estimated": lambda: sto(pressure_estimated, "1",
                                   "pressure missing: standard atmosphere at the site elevation"),
-        "night": sto(night, "1", "stable (night) branch of the surface layer"),
+        "night": lambda: sto(night, "1", "stable (night) branch of the surface layer"),
     }
+    base = {name: make() for name, make in base.items() if keep(name)}
     variables = {**base, **out}
     if summaries:  # the whole record is here: its counts too, in the same constructor call
-        variables.update(_summaries(variables, surf, receptors, opt))
+        variables.update(_summaries(variables, surf, receptors, opt, outputs))
+        if outputs is not None:           # the flags made only to be counted
+            variables = {k: v for k, v in variables.items() if k in outputs}
     return xr.Dataset(variables, coords=coords)
 
 
-def _summaries(variables, surf, receptors, opt) -> dict:
+def _summaries(variables, surf, receptors, opt, outputs=None) -> dict:
     """The (site, receptor) Variables of :func:`velocities`: d and the hours counted.
 
     Parameters
@@ -421,23 +475,28 @@ def _summaries(variables, surf, receptors, opt) -> dict:
     surf : xarray.Dataset
     receptors : list of str
     opt : DryOptions
+    outputs : collection of str, optional
+        The summaries made (default: every one; a count whose hourly flag is not among
+        `variables` is not made).
 
     Returns
     -------
     dict
         ``displacement_height`` [m], ``active`` [1] and the ``n_*`` counts [1].
     """
-    _, d_r = _receptors.receptor_roughness(surf, receptors, opt)
-    extra = {
-        "displacement_height": xr.Variable(("site", "receptor"), d_r,
-                                           {"units": "m", "long_name": "displacement height"}),
-        "active": xr.Variable(("site", "receptor"), surf["active"].values,
-                              {"units": "1", "long_name": "the site wants this receptor"})}
-    counts = {"n_ustar_floor": "ustar_floor_used", "n_ra_cap": "ra_cap_used",
-              "n_theta_star_limited": "theta_star_limited", "n_pressure_estimated": "pressure_estimated",
-              "n_ra_height_raised": "ra_height_raised"}
-    if "rc_floor_used_HNO3" in variables:
-        counts["n_hno3_rc_floor"] = "rc_floor_used_HNO3"
+    def wanted(name):
+        return outputs is None or name in outputs
+    extra = {}
+    if wanted("displacement_height"):
+        _, d_r = _receptors.receptor_roughness(surf, receptors, opt)
+        extra["displacement_height"] = xr.Variable(
+            ("site", "receptor"), d_r, {"units": "m", "long_name": "displacement height"})
+    if wanted("active"):
+        extra["active"] = xr.Variable(("site", "receptor"), surf["active"].values,
+                                      {"units": "1", "long_name": "the site wants this receptor"})
+    counts = {k: v for k, v in COUNT_FLAGS.items() if k != "n_cloud_default"}
+    if "rc_floor_used_HNO3" not in variables:
+        del counts["n_hno3_rc_floor"]
 
     def hours(v, long_name):  # hours counted over time (numpy sums in memory)
         dims = tuple(d for d in v.dims if d != "time")
@@ -446,17 +505,19 @@ def _summaries(variables, surf, receptors, opt) -> dict:
             return xr.Variable(dims, v.sum("time").data, attrs)
         return xr.Variable(dims, np.sum(v.values, axis=v.dims.index("time")), attrs)
     for name, flag in counts.items():
-        v = variables[flag]
-        extra[name] = hours(v, v.attrs["long_name"])
-    extra["n_cloud_default"] = hours(variables["cloud_cover_source"] == 2,
-                                     "cloud cover from the night_cloud_cover option")
+        if wanted(name) and flag in variables:
+            v = variables[flag]
+            extra[name] = hours(v, v.attrs["long_name"])
+    if wanted("n_cloud_default") and "cloud_cover_source" in variables:
+        extra["n_cloud_default"] = hours(variables["cloud_cover_source"] == 2,
+                                         "cloud cover from the night_cloud_cover option")
     return extra
 
 
-def _template(aug, surf, opt, receptors, met_surf=None):
+def _template(aug, surf, opt, receptors, met_surf=None, outputs=None):
     """An empty lazy Dataset shaped like the output of :func:`_hourly` on `aug`."""
     probe = _hourly(aug.isel(time=slice(0, 1)).compute(), surf, opt, receptors,
-                    met_surf=met_surf)
+                    met_surf=met_surf, outputs=outputs)
     dsa = require("dask.array")  # only here: `aug` is already dask-backed
     chunks = dict(aug.chunks)
     data = {}
@@ -469,7 +530,7 @@ def _template(aug, surf, opt, receptors, met_surf=None):
 
 
 def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None = None,
-               cache=None, receptors=None) -> xr.Dataset:
+               cache=None, receptors=None, outputs=None) -> xr.Dataset:
     """Dry deposition velocities and every resistance, per site, receptor and hour.
 
     Parameters
@@ -497,6 +558,14 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         Compute these receptors only (default: every receptor of `surfaces`); each
         receptor's numbers are the same as in the whole calculation (the surface
         around the wind mast is still taken from all of `surfaces`).
+    outputs : collection of str, optional
+        Make these output variables only (default: every one, as listed in
+        docs/methods_dry.md), e.g. ``{"vd_SO2", "vd_pSO4"}``: the others (resistances,
+        paths of Rc, the surface layer's and the canopy's diagnostics, the counts) are
+        neither copied into the result nor computed where only they need it.  The
+        variables made are the same bits as in the full result (a gridded run asks for
+        the Vd of its species only, :func:`workbench.grid.dry_for_sites`).  Names
+        that this call does not make are left out.
 
     Returns
     -------
@@ -553,8 +622,9 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         aug = aug.chunk(dict(zip(first.dims, first.chunks)))
         hourly = xr.map_blocks(_hourly, aug, kwargs={"surf": surf, "opt": opt,
                                                      "receptors": receptors,
-                                                     "met_surf": met_surf},
-                               template=_template(aug, surf, opt, receptors, met_surf))
+                                                     "met_surf": met_surf, "outputs": outputs},
+                               template=_template(aug, surf, opt, receptors, met_surf,
+                                                  outputs))
     else:
         if isinstance(cache, _graph.Graph):
             cache = cache.steps(_graph.variables_digest(
@@ -563,14 +633,16 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
         if (cache is None and n_threads > 1 and aug.sizes["site"] > 1
                 and aug.sizes["site"] * len(receptors) * aug.sizes["time"]
                 >= _blocks.SITE_BLOCK_MIN_ELEMENTS):
-            hourly = _blocks.hourly_site_blocks(_hourly, aug, surf, opt, receptors, met_surf,
-                                                n_threads)
+            hourly = _blocks.hourly_site_blocks(
+                functools.partial(_hourly, outputs=outputs), aug, surf, opt, receptors,
+                met_surf, n_threads)
         else:
-            hourly = _hourly(aug, surf, opt, receptors, cache, met_surf, summaries=True)
+            hourly = _hourly(aug, surf, opt, receptors, cache, met_surf, summaries=True,
+                             outputs=outputs)
     if lazy:  # the summaries over the whole record, then one constructor call
-        ds = xr.Dataset({**hourly.data_vars.variables,
-                         **_summaries(hourly.variables, surf, receptors, opt)},
-                        coords=hourly.coords)
+        ds = _asked(xr.Dataset({**hourly.data_vars.variables,
+                                **_summaries(hourly.variables, surf, receptors, opt, outputs)},
+                               coords=hourly.coords), outputs)
     else:
         ds = hourly
     ds.attrs = {"gas_scheme": _gas.get_scheme(opt.gas_scheme).REFERENCE,
