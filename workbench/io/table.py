@@ -312,6 +312,18 @@ class RawTable:
         return InputError(problem, file=self.path, line=line, column=col, value=value,
                           expected=expected)
 
+    def unit_groups(self, name) -> list:
+        """The units of column `name`, each with the rows written in it: a list of
+        (:class:`~workbench.units.Header`, bool rows [n]); one entry for a column written
+        in one unit, one more per later column of a unit switch (:mod:`.unitswitch`), so
+        that each cell is converted to SI once from the unit it was written in."""
+        rows = np.ones(len(self.lines), bool)
+        out = []
+        for later, mask in self.switched.get(name, ()):
+            out.append((parse_header(later), np.asarray(mask, bool)))
+            rows &= ~np.asarray(mask, bool)
+        return [(self.headers[name], rows)] + out
+
     @property
     def header_line(self) -> int:
         return int(self.lines[0]) - 1 if len(self.lines) else 1
