@@ -18,6 +18,7 @@ from . import metchecks, methours
 from .metclock import add_clock_notes
 from .common import check_sites, check_time_zones, join_reasons, unit_error
 from .ledger import Ledger
+from .readbytes import record_whole
 from .table import RawTable
 
 from .metvars import _UNITS_OUT, HOUR, MET_VARIABLES, convert_met  # noqa: F401 (re-exported)
@@ -203,6 +204,7 @@ def _read_met_netcdf(path: Path, catalogue):
     if not path.exists():
         raise InputError("file not found", file=path, expected="an existing file")
     _needs_hdf5_engine(path)
+    record_whole(path)          # read lazily by xarray: hashed just before it is opened
     try:
         raw = xr.open_dataset(path)
     except Exception as exc:  # many engines, many error types
@@ -452,6 +454,8 @@ def read_met_zarr(path, catalogue):
     from .zarrstore import open_zarr
     path = Path(path)
     raw, notes = open_zarr(path, "met")
+    if path.exists():           # read lazily by zarr: hashed just before it is read
+        record_whole(path)
     with raw:
         squeezed, _ = _netcdf_layout(raw, path, catalogue)
         names = list(_netcdf_units(raw, path))

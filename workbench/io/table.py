@@ -21,6 +21,7 @@ import pandas as pd
 from ..errors import NUMBER_TEXT, InputError, suggest
 from ..units import Header, parse_header
 from .ledger import compact_lines
+from .readbytes import read_hashed
 
 _OFFSET = re.compile(r"[T ]\d\d.*(?:Z|[+-]\d\d(?::?\d\d)?)$")
 
@@ -89,7 +90,7 @@ def number_hint(cell: str, censoring: bool = False) -> str:
 
 def _open_text(path: Path) -> str:
     try:
-        raw = path.read_bytes()
+        raw = read_hashed(path)         # the bytes parsed are the bytes hashed
     except FileNotFoundError:
         raise InputError("file not found", file=path, expected="an existing file") from None
     except IsADirectoryError:

@@ -5,6 +5,7 @@ import re
 from pathlib import Path
 
 from ..errors import InputError
+from .readbytes import read_hashed
 
 try:  # Python >= 3.11
     import tomllib
@@ -31,7 +32,7 @@ def read_toml(path, error=InputError, missing="file not found", expected="an exi
     """
     path = Path(path)
     try:
-        raw = path.read_bytes()
+        raw = read_hashed(path)         # the bytes parsed are the bytes hashed
     except FileNotFoundError:
         raise error(missing, file=path, expected=expected) from None
     except IsADirectoryError:
