@@ -84,7 +84,8 @@ def read_met(path, catalogue):
     off = catalogue.utc_offsets(sites)
     label = tab.meta.get("time_label", "end").lower()
     if label not in ("end", "start"):
-        raise InputError("unknown time label", file=tab.path, line=1, column="time_label",
+        raise InputError("unknown time label", file=tab.path,
+                         line=tab.meta_lines.get("time_label"), column="time_label",
                          value=label, expected="'end' or 'start'")
     t = tab.times("time", off)
     check_time_zones(tab, sites, names=("time",))     # one convention per site

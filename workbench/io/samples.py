@@ -500,8 +500,12 @@ def read_air(path, catalogue, reference_state=None):
         try:
             ref = parse_reference_state(ref_text)
         except ValueError:
-            raise InputError("unknown reference state", file=tab.path, line=1,
-                             column="reference_state", value=ref_text,
+            in_file = "reference_state" in tab.meta
+            raise InputError("unknown reference state" + ("" if in_file else
+                             " (from the scenario's [air] reference_state)"), file=tab.path,
+                             line=tab.meta_lines.get("reference_state") if in_file else None,
+                             column="reference_state" if in_file else "air.reference_state",
+                             value=ref_text,
                              expected="'ambient' or '<T> degC, <p> hPa'") from None
     method_all = tab.text("method") if tab.has("method") else None
     methods = {}

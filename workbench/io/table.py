@@ -215,6 +215,8 @@ class RawTable:
     end_of_day_rows: list = field(default_factory=list)
     #: Notes of species given in two units, joined (:mod:`.unitswitch`).
     unit_switch_notes: list = field(default_factory=list)
+    #: metadata key -> the 1-based line of its ``# key: value`` line.
+    meta_lines: dict = field(default_factory=dict)
     #: column name -> [(raw later column, bool rows)] of a joined unit switch: a
     #: message on such a row names the column the cell was written in.
     switched: dict = field(default_factory=dict)
@@ -225,7 +227,7 @@ class RawTable:
         path = Path(path)
         text = _open_text(path)
         all_lines = text.splitlines()
-        meta, n_meta = {}, 0
+        meta, n_meta, meta_lines = {}, 0, {}
         for ln in all_lines:
             s = ln.strip()
             if s.startswith("#"):
@@ -234,6 +236,7 @@ class RawTable:
                 if ":" in body:
                     key, val = body.split(":", 1)
                     meta[key.strip().lower()] = val.strip()
+                    meta_lines[key.strip().lower()] = n_meta
             elif s == "" and n_meta == len(meta) and n_meta:
                 n_meta += 1
             else:
@@ -298,6 +301,7 @@ class RawTable:
                                  value=df.iat[r, c].split("\n")[0][:40],
                                  expected='quotes in pairs ("...") around a cell')
         tab = cls(path, meta, df, lines, headers, raw)
+        tab.meta_lines = meta_lines
         tab.unit_switch_notes = switches
         tab.switched = {parse_header(a).name: v for a, v in origin.items()}
         return tab
