@@ -73,9 +73,9 @@ from .ledger import CodedRows, Ledger
 from .linechunks import (Source, gunzip, header_cells, line_cells, normalise, parsed_cells,
                          plain, plain_rows, read_head)
 from .metrows import Spill
-from .readbytes import HashingFile
 from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
+from .readbytes import HashingFile
 from .table import (_OFFSET, SAMPLE_MISSING_TEXTS, YEARS, end_of_day, end_of_day_note,
                     parse_iso)
 

@@ -83,7 +83,6 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero
     """
     data = {}
     for sp, name in cols.items():
-        h = tab.headers[name]
         unit = tab.unit_of(name)
         raw, cens = tab.numbers(name, censoring=True, missing="samples")
         try:
