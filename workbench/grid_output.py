@@ -309,7 +309,6 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
     from .errors import ScenarioError
     from .scenario import load_scenario
     from .io.inputs import file_stamp
-    from .io.readbytes import file_sha256
     from .writers import changed_note, provenance
     sc = load_scenario(scenario_path)
     paths = grid_paths(sc)
@@ -328,7 +327,7 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
             _cluster(workers, scheduler) as client:
         # read lazily, block by block: hashed just before they are opened, and again at
         # the end (an edit meanwhile is named in provenance.json, by content)
-        read = {role: file_sha256(p) for role, p in paths.items()}
+        read = {role: file_stamp(p) for role, p in paths.items()}   # None: open_grid says
         grid = open_grid(paths["met"], paths["air"], paths["land_use"])
         say(describe(grid))
         if block is None:          # a block's memory: about the same for any record length
