@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import dataclasses
 import json
+from pathlib import Path
 import sys
 
 import numpy as np
@@ -509,3 +510,40 @@ def test_a_class_goes_through_the_engine_in_slices(grid, monkeypatch):
     _, sliced = compute_grid(grid, DryOptions(), BudgetOptions(), periods, block=10)
     assert calls == [1] * 5                    # 5 cells with a class, one call each
     np.testing.assert_allclose(sliced, whole, rtol=1e-12, atol=0, equal_nan=True)
+
+
+def test_grid_input_edited_keeping_size_and_mtime_is_named(site, tmp_path, monkeypatch, capsys):
+    """Old code: provenance.json of `workbench grid` took the inputs' checksums at the
+    end, so an input edited while the maps were computed was recorded as the file the
+    maps came from.  Now each input is hashed before it is opened and again at the end;
+    an edit that keeps the size and the modification time is caught by content."""
+    import hashlib
+    import os
+
+    from workbench import grid_output
+    from workbench.cli import main
+    paths = _write(tmp_path / "in", site)
+    (tmp_path / "in" / "scenario.toml").write_text(
+        '[grid]\nmet = "met.nc"\nair = "air.nc"\nland_use = "land_use.nc"\n'
+        '[period]\nresolution = "month"\n')
+    lu = Path(paths["land_use"])
+    before = hashlib.sha256(lu.read_bytes()).hexdigest()     # hashlib, FIPS 180-4
+    real = grid_output.compute_grid
+
+    def edit_then_compute(*args, **kw):
+        st = os.stat(lu)
+        raw = lu.read_bytes()
+        k = raw.index(b"invented land-use grid")            # the title: same length
+        lu.write_bytes(raw[:k] + b"Invented" + raw[k + 8:])
+        os.utime(lu, ns=(st.st_atime_ns, st.st_mtime_ns))
+        assert (os.stat(lu).st_size, os.stat(lu).st_mtime_ns) == (st.st_size, st.st_mtime_ns)
+        return real(*args, **kw)
+    monkeypatch.setattr(grid_output, "compute_grid", edit_then_compute)
+    assert main(["grid", str(tmp_path / "in" / "scenario.toml"), "--out",
+                 str(tmp_path / "out"), "--quiet", "--block", "6"]) == 0
+    prov = json.loads((tmp_path / "out" / "provenance.json").read_text())
+    rec = prov["inputs"]["land_use"]
+    assert rec.get("changed_after_read") is True
+    assert rec["sha256"] == before != hashlib.sha256(lu.read_bytes()).hexdigest()
+    assert not any(prov["inputs"][r].get("changed_after_read") for r in ("met", "air"))
+    assert f"warning: {lu} changed after the run read it" in capsys.readouterr().err

@@ -264,3 +264,73 @@ def test_budget_differences_counts_tolerance_missing_values_and_status(tmp_path)
     loose, _ = budget_differences(tmp_path / "a", tmp_path / "b", rtol=1e-6)
     assert list(zip(loose["element"], loose["pathway"])) == [("N", "total"), ("N", "dry")]
     assert loose["b_status"].tolist() == ["missing", "flagged"]
+
+
+def file_sha256(path) -> str:
+    """SHA-256 of a file (hashlib, FIPS 180-4), independent of the package's own."""
+    import hashlib
+    return hashlib.sha256(Path(path).read_bytes()).hexdigest()
+
+
+def _same_size_edit(path: Path, old: str, new: str):
+    """Replace `old` by `new` (same length) in `path`, keeping its size and its
+    modification time (os.utime back to the time read before the edit)."""
+    import os
+    assert len(old) == len(new)
+    st = os.stat(path)
+    text = path.read_text()
+    assert old in text
+    path.write_text(text.replace(old, new, 1))
+    os.utime(path, ns=(st.st_atime_ns, st.st_mtime_ns))
+    after = os.stat(path)
+    assert (after.st_size, after.st_mtime_ns) == (st.st_size, st.st_mtime_ns)
+
+
+@pytest.mark.parametrize("role, name, old, new", [
+    ("air", "air.csv", "2.0,0.5", "2.1,0.5"),
+    ("met", "met.csv", ",", ",")])                      # the met: one digit, below
+def test_an_edit_that_keeps_size_and_mtime_is_caught_by_content(tmp_path, monkeypatch, capsys,
+                                                                  role, name, old, new):
+    """Old code: the stamp was size + modification time, so an edit that kept both (a
+    digit changed for another, the time set back by a sync tool or os.utime) was not
+    seen, and provenance.json recorded the checksum of the edited file as the one the
+    numbers came from.  Now the readers hash the very bytes they parse."""
+    from workbench import writers
+    scen = _project(tmp_path / "p")
+    path = scen.parent / name
+    if role == "met":                                   # change one digit of a value
+        text = path.read_text()
+        line = text.splitlines()[3]
+        digit = next(i for i in range(len(line) - 1, 0, -1) if line[i].isdigit())
+        old, new = line, line[:digit] + str((int(line[digit]) + 1) % 10) + line[digit + 1:]
+    before = file_sha256(path)
+    first_name, first_writer = writers.OUTPUT_STEPS[0]
+
+    def edit_then_write(result, study, scenario, out):
+        _same_size_edit(path, old, new)                 # saved meanwhile, time set back
+        return first_writer(result, study, scenario, out)
+    monkeypatch.setattr(writers, "OUTPUT_STEPS",
+                        [(first_name, edit_then_write)] + writers.OUTPUT_STEPS[1:])
+    run = _run(scen, tmp_path / "run")
+    assert ("warning: " + str(path) + " changed after the run read it") in capsys.readouterr().err
+    prov = json.loads((run / "provenance.json").read_text())
+    rec = prov["inputs"][role]
+    assert rec.get("changed_after_read") is True
+    assert rec["sha256"] == before != rec["sha256_now"] == file_sha256(path)
+    others = [r for k, r in prov["inputs"].items() if k not in (role, "scenario")]
+    assert others and not any(r.get("changed_after_read") for r in others)
+    assert main(["verify", str(run)]) == 1
+    assert f"input {role} ({name}): changed after the run read it" in capsys.readouterr().out
+
+
+def test_the_recorded_checksum_is_of_the_bytes_parsed(tmp_path):
+    """Each input's digest comes from the bytes its reader parsed (one read), equal to
+    the file's SHA-256 when nothing changed."""
+    from workbench.pipeline import Study
+    from workbench.scenario import load_scenario
+    scen = _project(tmp_path / "p")
+    study = Study.from_scenario(load_scenario(scen))
+    stamps = study.inputs.stamps
+    assert set(stamps) == set(study.inputs.paths)
+    for role, p in study.inputs.paths.items():
+        assert stamps[role] == file_sha256(p), role

@@ -249,6 +249,18 @@ def _early_cluster(sc, workers, scheduler):
     return ClusterStart(workers)
 
 
+def changed_inputs(out: Path) -> list:
+    """The paths of the inputs the run folder `out` marks ``changed_after_read`` (what
+    provenance.json says, with no second hash of every input)."""
+    import json
+    try:
+        prov = json.loads((out / "provenance.json").read_text())
+    except (OSError, ValueError):
+        return []
+    return [Path(rec["path"]) for rec in prov.get("inputs", {}).values()
+            if isinstance(rec, dict) and rec.get("changed_after_read")]
+
+
 def cmd_run(args) -> int:
     written, result, study = run_scenario(args.scenario, args.out, args.overwrite, args.quiet,
                                           resolution=args.resolution, workers=args.workers,
@@ -256,8 +268,8 @@ def cmd_run(args) -> int:
     print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
     for name in written:
         print(f"  {name}")
-    from .writers import changed_since_read, changed_note
-    for path in changed_since_read(study).values():     # edited while the run read it
+    from .writers import changed_note
+    for path in changed_inputs(Path(args.out)):         # edited after the run read it
         print(f"warning: {changed_note(path, None)}", file=sys.stderr)
     for line in status_lines(result.table, study.inputs):
         print(line)

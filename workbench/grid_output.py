@@ -308,7 +308,8 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
     """
     from .errors import ScenarioError
     from .scenario import load_scenario
-    from .writers import provenance
+    from .io.inputs import file_stamp
+    from .writers import changed_note, provenance
     sc = load_scenario(scenario_path)
     paths = grid_paths(sc)
     if len(paths) != 3:
@@ -324,6 +325,9 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
     with _terminate_as_interrupt(), \
             RunFolder(out, {"scenario": sc.path, **paths}, overwrite, say=say) as folder, \
             _cluster(workers, scheduler) as client:
+        # read lazily, block by block: hashed just before they are opened, and again at
+        # the end (an edit meanwhile is named in provenance.json, by content)
+        read = {role: file_stamp(p) for role, p in paths.items()}   # None: open_grid says
         grid = open_grid(paths["met"], paths["air"], paths["land_use"])
         say(describe(grid))
         if block is None:          # a block's memory: about the same for any record length
@@ -343,7 +347,11 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
                 arr = client.compute(arr).result()
                 where = (f" on the dask scheduler at {scheduler}" if scheduler
                          else f" on a local dask cluster of {workers} workers")
-            prov = provenance(sc, {"scenario": sc.path, **paths}, started)
+            changed = {r: p for r, p in paths.items() if file_stamp(p) != read[r]}
+            for p_changed in changed.values():
+                print(f"warning: {changed_note(p_changed, None)}", file=sys.stderr)
+            prov = provenance(sc, {"scenario": sc.path, **paths}, started, changed=changed,
+                              read=read)
             history = (f"{started:%Y-%m-%dT%H:%M:%SZ} workbench grid {sc.path} (deposition "
                        f"workbench {__version__}; blocks of {block} cells"
                        f"{' as dask tasks' if use_dask else ''}{where}); inputs: "

@@ -332,7 +332,8 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
         parts.append(fold(bracket, len(frame), "the bracket of every site, receptor and period")
                      if network else bracket)
     notes_col = t["note"].dropna() if "note" in t else pd.Series(dtype=str)
-    notes_col = notes_col[notes_col != ""]
+    # the components' own notes: a sum row (species "all") gathers them again
+    notes_col = notes_col[(notes_col != "") & (t.loc[notes_col.index, "species"] != "all")]
     if len(notes_col) and network:
         parts.append("<h2>Notes on components</h2><p>Grouped by species and cause, the "
                      "sites and periods each holds for; every note is in budget.csv.</p><ul>")

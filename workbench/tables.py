@@ -130,7 +130,49 @@ def budget_table(ds: xr.Dataset, lean: bool = False) -> pd.DataFrame:
         basis = json.loads(ds.attrs["options"]).get("sulfate_basis", "nss")
     frame = _wet_columns(ds, frame, basis)
     frame = _nh3_columns(ds, frame)
-    return _sorted(frame)
+    return _sorted(_sum_notes(frame))
+
+
+#: The keys of one sum row's parts: same site, receptor, period and element.
+_SUM_KEYS = ["site", "receptor", "period_start", "element"]
+
+
+def _sum_notes(frame: pd.DataFrame) -> pd.DataFrame:
+    """`frame` with the ``note`` of each sum row (``species`` ``all``) gathering the
+    notes of its parts: the rows of its element (and period, site, receptor) in its
+    pathway (``wet``, ``dry``), or in both for the ``total``.  Each note part
+    ("; "-joined, :func:`workbench.budgetstatus.join_notes`) is said once, after the
+    species that carry it, in the order the parts first come (``SO2 pSO4: not measured
+    at the site (...)``); a sum row's own note, if any, comes first.  Vectorized over the
+    rows that carry a note; the groups are joined by pandas, never a loop over hours."""
+    if "note" not in frame:
+        return frame
+    note = frame["note"].fillna("").astype(str)
+    frame = frame.assign(note=note.to_numpy(dtype=object))
+    part_of = (frame["species"] != "all").to_numpy() & (note != "").to_numpy()
+    if not part_of.any():
+        return frame
+    rows = frame.loc[part_of, _SUM_KEYS + ["pathway", "species"]].assign(
+        _part=note[part_of].str.split("; "))
+    rows = rows.explode("_part")
+    rows = rows[rows["_part"].str.strip() != ""]
+    both = pd.concat([rows, rows.assign(pathway="total")], ignore_index=True)
+    both["_o"] = np.arange(len(both))
+    both = both.drop_duplicates(_SUM_KEYS + ["pathway", "_part", "species"])
+    by = _SUM_KEYS + ["pathway"]
+    named = both.groupby(by + ["_part"], sort=False).agg(
+        species=("species", " ".join), _o=("_o", "min")).reset_index()
+    named = named.sort_values("_o", kind="stable")
+    named["_text"] = named["species"] + ": " + named["_part"]
+    gathered = named.groupby(by, sort=False)["_text"].agg("; ".join).rename("_gathered")
+    sums = frame.loc[frame["species"] == "all", by]
+    got = sums.join(gathered, on=by)["_gathered"].fillna("").to_numpy(dtype=object)
+    own = frame.loc[frame["species"] == "all", "note"].to_numpy(dtype=object)
+    joined = np.where((own != "") & (got != ""), own + "; " + got,
+                      np.where(own != "", own, got))
+    note = frame["note"].to_numpy(dtype=object).copy()
+    note[(frame["species"] == "all").to_numpy()] = joined
+    return frame.assign(note=note)
 
 
 def _sorted(frame: pd.DataFrame) -> pd.DataFrame:

@@ -6,7 +6,6 @@
 from __future__ import annotations
 
 import datetime as _dt
-import hashlib
 import json
 from pathlib import Path
 
@@ -18,6 +17,7 @@ from . import __version__
 from .csvwrite import write_csv
 from .io.common import release_free_memory
 from .io.ledger import STATUSES
+from .io.readbytes import file_sha256
 from .runfolder import (OutputError, RunFolder, atomic_write, check_out_dir,  # noqa: F401
                         os_error_message)
 from .runpaths import relative_from, scenario_base, shown_path, shown_text
@@ -29,16 +29,8 @@ __all__ = ["OUTPUT_STEPS", "OutputError", "RunFolder", "atomic_write", "write_ru
 
 def sha256(path) -> str:
     """SHA-256 of a file; of a folder (a zarr store), of its files' relative paths and
-    contents in name order."""
-    h = hashlib.sha256()
-    if Path(path).is_dir():
-        for f in sorted(p for p in Path(path).rglob("*") if p.is_file()):
-            h.update(f.relative_to(path).as_posix().encode() + b"\0" + sha256(f).encode())
-        return h.hexdigest()
-    with open(path, "rb") as f:
-        for chunk in iter(lambda: f.read(1 << 20), b""):
-            h.update(chunk)
-    return h.hexdigest()
+    contents in name order (:func:`workbench.io.readbytes.file_sha256`)."""
+    return file_sha256(path)
 
 
 def prepare_out_dir(out: Path, inputs: dict, overwrite: bool = False) -> Path:
@@ -224,8 +216,10 @@ def environment() -> dict:
 
 
 def changed_since_read(study) -> dict:
-    """role -> path of each input of `study` that changed (size or modification time)
-    after it was read: its checksum now is not of the file the numbers came from."""
+    """role -> path of each input of `study` whose content now differs from the bytes it
+    was read from (SHA-256, :attr:`workbench.io.inputs.Inputs.stamps`): edited after it
+    was read, whatever its size and modification time; its numbers came from the
+    content recorded in provenance.json, not from the file as it is now."""
     from .io.inputs import file_stamp
     stamps = getattr(study.inputs, "stamps", {}) or {}
     return {role: p for role, p in study.inputs.paths.items()
@@ -235,12 +229,12 @@ def changed_since_read(study) -> dict:
 def changed_note(path, base) -> str:
     """The note of an input that changed after the run read it."""
     return (f"{shown_path(path, base)} changed after the run read it: its sha256 in "
-            "provenance.json is of the file as it is now, not of the one the numbers come "
-            "from; run again to use the file as it is")
+            "provenance.json is of the content the numbers come from, not of the file as "
+            "it is now; run again to use the file as it is")
 
 
 def provenance(scenario, inputs_paths: dict, started: _dt.datetime, out=None,
-               resolution=None, changed=()) -> dict:
+               resolution=None, changed=(), read=None) -> dict:
     """What made a run, for provenance.json (docs/run_folder.md).
 
     Parameters
@@ -258,8 +252,14 @@ def provenance(scenario, inputs_paths: dict, started: _dt.datetime, out=None,
         scenario's ``[period] resolution``; the recorded scenario says the one used).
     changed : collection of str
         Roles of the inputs that changed after they were read
-        (:func:`changed_since_read`): marked ``"changed_after_read": true``.
+        (:func:`changed_since_read`): marked ``"changed_after_read": true``, with the
+        SHA-256 of the file as it is now (``sha256_now``).
+    read : dict, optional
+        role -> SHA-256 of the bytes each input was parsed from
+        (:attr:`workbench.io.inputs.Inputs.stamps`): recorded as its ``sha256`` (the
+        content the numbers come from); an input without one is hashed here.
     """
+    read = read or {}
     base = scenario_base(scenario)
     resolved = scenario.resolved() if scenario is not None else None
     overrides = {}
@@ -270,13 +270,14 @@ def provenance(scenario, inputs_paths: dict, started: _dt.datetime, out=None,
         period["resolution"] = resolution
     inputs = {}
     for role, p in inputs_paths.items():
-        inputs[role] = {"path": str(p), "sha256": sha256(p),
+        inputs[role] = {"path": str(p), "sha256": read.get(role) or sha256(p),
                         "in_scenario_folder": shown_path(p, base) if role != "scenario"
                         else Path(p).name}
         if out is not None:
             inputs[role]["from_run_folder"] = relative_from(p, out)
         if role in changed:
             inputs[role]["changed_after_read"] = True
+            inputs[role]["sha256_now"] = sha256(p)
     return {
         "package": "deposition-workbench", "version": __version__,
         "run_started_utc": started.strftime("%Y-%m-%dT%H:%M:%SZ"),
@@ -430,7 +431,8 @@ def write_files(result, study, scenario, folder: Path, progress=None, started=No
                 prov = provenance(scenario, input_paths(study, scenario), started,
                                   out=folder if out is None else out,
                                   resolution=getattr(result, "options", {}).get("resolution"),
-                                  changed=changed)
+                                  changed=changed,
+                                  read=getattr(study.inputs, "stamps", None))
                 prov["outputs"] = names + ["provenance.json"]
                 prov["output_sha256"] = {n: sha256(folder / n) for n in names}
                 prov["input_notes"] = [shown_text(str(n), base) for n in study.inputs.ledger.notes]

@@ -190,6 +190,11 @@ def check_critical_loads(t, surfaces, err, table_err, notes, site_id):
         units[r] = _table_unit(table.pop("unit", "eq/ha/yr"),
                                lambda p, v, e, r=r: table_err(p, r, "unit", v, e))
         for key, v in table.items():
+            if isinstance(v, dict):      # [site.critical_loads.<receptor>.<x>]
+                raise table_err(f"a table inside [site.critical_loads.{r}]", r, key,
+                                expected="the keys " + ", ".join(CRITICAL_LOAD_KEYS)
+                                + " (and unit) of the receptor's critical loads, no table"
+                                + suggest(key, CRITICAL_LOAD_KEYS))
             if key not in CRITICAL_LOAD_KEYS:
                 raise table_err(f"unknown critical-load key in [site.critical_loads.{r}]", r, key,
                                 expected="one of " + ", ".join(CRITICAL_LOAD_KEYS)

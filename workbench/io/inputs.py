@@ -12,6 +12,7 @@ from .ledger import Ledger
 from .met import read_met
 from .metchecks import gauge_comparison, gauge_slip_notes
 from .metstore import is_lazy
+from .readbytes import file_sha256, path_key, recording
 from .samples import read_air, read_precipitation
 from .sites import SiteCatalogue, read_sites
 
@@ -31,8 +32,10 @@ class Inputs:
     paths : dict
         Role -> Path of each file read.
     stamps : dict
-        Role -> :func:`file_stamp` of each file just before it was read: a run folder
-        written later says when a file changed after it was read (provenance.json).
+        Role -> SHA-256 (hex) of the bytes each file was parsed from
+        (:mod:`workbench.io.readbytes`): the checksum provenance.json records, and
+        against which a file is hashed again at the end of a run (changed after it was
+        read: by content, whatever its size and modification time).
     """
 
     catalogue: SiteCatalogue
@@ -153,18 +156,13 @@ def _hours(time, t0=None, t1=None):
     return idx
 
 
-def file_stamp(path) -> tuple | None:
-    """(size [bytes], modification time [ns]) of a file; of a folder (a zarr store), of
-    its files summed and the latest; None when it cannot be read."""
-    path = Path(path)
+def file_stamp(path) -> str | None:
+    """SHA-256 (hex) of a file (of a folder: a zarr store) as it is now, None when it
+    cannot be read: compared with :attr:`Inputs.stamps` (the bytes read)."""
     try:
-        if path.is_dir():
-            st = [f.stat() for f in path.rglob("*") if f.is_file()]
-            return (sum(s.st_size for s in st), max((s.st_mtime_ns for s in st), default=0))
-        st = path.stat()
+        return file_sha256(path)
     except OSError:
         return None
-    return (st.st_size, st.st_mtime_ns)
 
 
 def load_inputs(sites, precipitation=None, air=None, met=None, reference_state=None,
@@ -188,13 +186,19 @@ def load_inputs(sites, precipitation=None, air=None, met=None, reference_state=N
     -------
     Inputs
     """
+    with recording() as seen:           # the SHA-256 of the bytes each reader parsed
+        inp = _load(sites, precipitation, air, met, reference_state, progress, flag_map)
+    inp.stamps = {role: seen[path_key(p)] for role, p in inp.paths.items()
+                  if path_key(p) in seen}
+    return inp
+
+
+def _load(sites, precipitation, air, met, reference_state, progress, flag_map) -> Inputs:
+    """:func:`load_inputs` without the digests."""
     say = progress or (lambda text: None)
     say("site catalogue")
-    stamps = {role: file_stamp(p) for role, p in (("sites", sites), ("precipitation",
-              precipitation), ("flag_map", flag_map), ("air", air), ("met", met))
-              if p is not None}                   # before reading: what the run used
     cat = read_sites(sites)
-    inp = Inputs(cat, paths={"sites": Path(sites)}, stamps=stamps)
+    inp = Inputs(cat, paths={"sites": Path(sites)})
     inp.ledger.notes.extend(cat.notes)
     if precipitation is not None:
         say("precipitation samples")

@@ -18,6 +18,7 @@ from . import metchecks, methours
 from .metclock import add_clock_notes
 from .common import check_sites, check_time_zones, join_reasons, unit_error
 from .ledger import Ledger
+from .readbytes import record_whole
 from .table import RawTable
 
 from .metvars import _UNITS_OUT, HOUR, MET_VARIABLES, convert_met  # noqa: F401 (re-exported)
@@ -83,7 +84,8 @@ def read_met(path, catalogue):
     off = catalogue.utc_offsets(sites)
     label = tab.meta.get("time_label", "end").lower()
     if label not in ("end", "start"):
-        raise InputError("unknown time label", file=tab.path, line=1, column="time_label",
+        raise InputError("unknown time label", file=tab.path,
+                         line=tab.meta_lines.get("time_label"), column="time_label",
                          value=label, expected="'end' or 'start'")
     t = tab.times("time", off)
     check_time_zones(tab, sites, names=("time",))     # one convention per site
@@ -203,6 +205,7 @@ def _read_met_netcdf(path: Path, catalogue):
     if not path.exists():
         raise InputError("file not found", file=path, expected="an existing file")
     _needs_hdf5_engine(path)
+    record_whole(path)          # read lazily by xarray: hashed just before it is opened
     try:
         raw = xr.open_dataset(path)
     except Exception as exc:  # many engines, many error types
@@ -452,6 +455,8 @@ def read_met_zarr(path, catalogue):
     from .zarrstore import open_zarr
     path = Path(path)
     raw, notes = open_zarr(path, "met")
+    if path.exists():           # read lazily by zarr: hashed just before it is read
+        record_whole(path)
     with raw:
         squeezed, _ = _netcdf_layout(raw, path, catalogue)
         names = list(_netcdf_units(raw, path))

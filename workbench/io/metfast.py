@@ -75,6 +75,7 @@ from .linechunks import (Source, gunzip, header_cells, line_cells, normalise, pa
 from .metrows import Spill
 from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
+from .readbytes import HashingFile
 from .table import (_OFFSET, SAMPLE_MISSING_TEXTS, YEARS, end_of_day, end_of_day_note,
                     parse_iso)
 
@@ -181,19 +182,21 @@ def read_met_csv_fast(path, catalogue, chunk_bytes=CHUNK_BYTES):
     """
     path = Path(path)
     try:
-        with open(path, "rb") as f:
-            magic = f.read(2)
-            f.seek(0)
+        with open(path, "rb") as raw:
+            magic = raw.read(2)
+            raw.seek(0)
             size_hint = path.stat().st_size
-            if path.suffix == ".gz" or magic == b"\x1f\x8b":
-                f.seek(-4, 2)           # gzip: the size of the text is in the last 4 bytes
-                size_hint = max(int.from_bytes(f.read(4), "little"), 3 * size_hint)
-                f.seek(0)
-                source = Source(gunzip(f))
-            else:
-                source = Source(plain(f))
+            gz = path.suffix == ".gz" or magic == b"\x1f\x8b"
+            if gz:
+                raw.seek(-4, 2)         # gzip: the size of the text is in the last 4 bytes
+                size_hint = max(int.from_bytes(raw.read(4), "little"), 3 * size_hint)
+                raw.seek(0)
+            f = HashingFile(raw, path)  # every block parsed is hashed as it is read
+            source = Source(gunzip(f) if gz else plain(f))
             got = _read(source, path, catalogue, chunk_bytes, HOUR, MET_VARIABLES, convert_met,
                         size_hint)
+            if got is not None:
+                f.finish()
     except InputError:
         raise                             # located here as the line reader locates it
     except (OSError, EOFError, ValueError, UnicodeDecodeError, zlib.error,

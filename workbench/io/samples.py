@@ -83,11 +83,10 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero
     """
     data = {}
     for sp, name in cols.items():
-        h = tab.headers[name]
         unit = tab.unit_of(name)
         raw, cens = tab.numbers(name, censoring=True, missing="samples")
         try:
-            amount, kind = to_amount(raw, unit, sp, h.basis)
+            amount, kind = _to_amount_by_unit(tab, name, raw, sp)
         except ValueError as exc:
             raise unit_error(tab, name, exc, "a concentration unit such as mg/L, umol/L, "
                              "ueq/L (precipitation) or ug/m3, ppb (air)") from None
@@ -116,6 +115,23 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero
         ledger_parts.append(np.where(zero, f"{sp} reported as 0 (censored as below detection:"
                                      f" write '<limit', or leave empty if not measured)", ""))
     return data
+
+
+def _to_amount_by_unit(tab, name, raw, sp):
+    """:func:`workbench.units.to_amount` of column `name`'s numbers `raw` [as written],
+    each row from the unit of the column it was written in (one unit, or the units of
+    a switch, :meth:`RawTable.unit_groups`): converted once, with pint, never through
+    the other unit.  Returns (amount [mol m-3 or mol mol-1], kind); ValueError for a
+    unit that is no concentration of `sp`."""
+    groups = tab.unit_groups(name)
+    if len(groups) == 1:
+        return to_amount(raw, groups[0][0].unit, sp, groups[0][0].basis)
+    amount, kinds = np.full(len(raw), np.nan), set()
+    for h, rows in groups:          # a few units, never a loop over rows
+        part, kind = to_amount(raw[rows], h.unit, sp, h.basis)
+        amount[rows] = part
+        kinds.add(kind)
+    return amount, kinds.pop()      # one kind: two were refused by the switch
 
 
 def _mask_sentinels(tab, name, raw, values, parts):
@@ -483,8 +499,12 @@ def read_air(path, catalogue, reference_state=None):
         try:
             ref = parse_reference_state(ref_text)
         except ValueError:
-            raise InputError("unknown reference state", file=tab.path, line=1,
-                             column="reference_state", value=ref_text,
+            in_file = "reference_state" in tab.meta
+            raise InputError("unknown reference state" + ("" if in_file else
+                             " (from the scenario's [air] reference_state)"), file=tab.path,
+                             line=tab.meta_lines.get("reference_state") if in_file else None,
+                             column="reference_state" if in_file else "air.reference_state",
+                             value=ref_text,
                              expected="'ambient' or '<T> degC, <p> hPa'") from None
     method_all = tab.text("method") if tab.has("method") else None
     methods = {}

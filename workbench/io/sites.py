@@ -17,7 +17,7 @@ from ..landuse import LAND_USE
 
 from .critical_loads import CRITICAL_LOAD_KEYS, check_critical_loads  # noqa: F401
 from .sitechanges import change_key_line, check_changes
-from .tomlfile import read_toml
+from .tomlfile import read_toml, toml_line
 
 #: key -> (type(s), required, description)
 SITE_KEYS = {
@@ -245,15 +245,12 @@ def _key_line(text_lines, block_starts, k, key):
     """Line (1-based) of `key` within the k-th [[site]] block, or the block's line."""
     start = block_starts[k] if k < len(block_starts) else 0
     end = block_starts[k + 1] if k + 1 < len(block_starts) else len(text_lines)
-    pat = re.compile(rf"^\s*{re.escape(key)}\s*=")
-    for i in range(start, end):
-        if pat.match(text_lines[i]):
-            return i + 1
-    head = re.compile(rf"^\s*\[\s*site\.{re.escape(key)}\s*\]")   # a [site.<key>] table
-    for i in range(start, end):
-        if head.match(text_lines[i]):
-            return i + 1
-    return start + 1
+    for path in (["site", key], ["site", "critical_loads", key]):  # a key, a [site.<key>]
+        found = toml_line(text_lines, path, start, end)           # table, a dotted key, or
+        if found is not None:                                     # a key of the site's
+            return found                                          # critical loads
+    pat = re.compile(rf"^\s*{re.escape(key)}\s*=")                # in a table of the block
+    return next((i + 1 for i in range(start, end) if pat.match(text_lines[i])), start + 1)
 
 
 def _table_key_line(text_lines, block_starts, k, receptor, key):
@@ -261,16 +258,10 @@ def _table_key_line(text_lines, block_starts, k, receptor, key):
     k-th [[site]] block (the table's header line when the key is not found)."""
     start = block_starts[k] if k < len(block_starts) else 0
     end = block_starts[k + 1] if k + 1 < len(block_starts) else len(text_lines)
-    head = re.compile(rf"^\s*\[\s*site\.critical_loads\.{re.escape(receptor)}\s*\]")
-    pat = re.compile(rf"^\s*{re.escape(key)}\s*=")
-    for i in range(start, end):
-        if head.match(text_lines[i]):
-            for j in range(i + 1, end):
-                if text_lines[j].lstrip().startswith("["):
-                    break
-                if pat.match(text_lines[j]):
-                    return j + 1
-            return i + 1
+    for path in (["site", "critical_loads", receptor, key], ["site", "critical_loads", receptor]):
+        found = toml_line(text_lines, path, start, end)
+        if found is not None:
+            return found
     return _key_line(text_lines, block_starts, k, key)
 
 
@@ -303,7 +294,10 @@ def read_sites(path) -> SiteCatalogue:
     extra = [k for k in data if k != "site"]
     if extra:
         raise InputError("unknown top-level key", file=path, column=extra[0],
-                         expected="only [[site]] tables" + suggest(extra[0], ["site"]))
+                         line=toml_line(lines, [extra[0]]),
+                         expected="only [[site]] tables, each with the site keys and its "
+                         "[site.critical_loads] (and [site.critical_loads.<receptor>]) tables"
+                         + suggest(extra[0], ["site"]))
     tables = data.get("site")
     if not isinstance(tables, list) or not tables:
         raise InputError("no sites", file=path, expected="one or more [[site]] tables")
@@ -342,8 +336,13 @@ def read_sites(path) -> SiteCatalogue:
 def _type_check(t, err):
     for key, v in t.items():
         if key not in SITE_KEYS:
+            if isinstance(v, dict):     # a table [site.<key>]: name the site's tables
+                tables = [k for k, (typ, _, _) in SITE_KEYS.items() if typ is dict]
+                raise err("unknown table", key, expected="one of the site's tables: "
+                          + ", ".join(f"[site.{k}]" for k in tables) + suggest(key, tables)
+                          + " (docs/data_formats.md, section 1)")
             raise err("unknown key", key, expected="one of the documented site keys"
-                      + suggest(key, SITE_KEYS))
+                      + suggest(key, SITE_KEYS) + " (docs/data_formats.md, section 1)")
         typ, _, desc = SITE_KEYS[key]
         if isinstance(v, bool) or not isinstance(v, typ):
             raise err("wrong type", key, v, f"{type_words(typ)} ({desc})" + type_hint(v))

@@ -21,6 +21,7 @@ import pandas as pd
 from ..errors import NUMBER_TEXT, InputError, suggest
 from ..units import Header, parse_header
 from .ledger import compact_lines
+from .readbytes import read_hashed
 
 _OFFSET = re.compile(r"[T ]\d\d.*(?:Z|[+-]\d\d(?::?\d\d)?)$")
 
@@ -89,7 +90,7 @@ def number_hint(cell: str, censoring: bool = False) -> str:
 
 def _open_text(path: Path) -> str:
     try:
-        raw = path.read_bytes()
+        raw = read_hashed(path)         # the bytes parsed are the bytes hashed
     except FileNotFoundError:
         raise InputError("file not found", file=path, expected="an existing file") from None
     except IsADirectoryError:
@@ -214,6 +215,8 @@ class RawTable:
     end_of_day_rows: list = field(default_factory=list)
     #: Notes of species given in two units, joined (:mod:`.unitswitch`).
     unit_switch_notes: list = field(default_factory=list)
+    #: metadata key -> the 1-based line of its ``# key: value`` line.
+    meta_lines: dict = field(default_factory=dict)
     #: column name -> [(raw later column, bool rows)] of a joined unit switch: a
     #: message on such a row names the column the cell was written in.
     switched: dict = field(default_factory=dict)
@@ -224,7 +227,7 @@ class RawTable:
         path = Path(path)
         text = _open_text(path)
         all_lines = text.splitlines()
-        meta, n_meta = {}, 0
+        meta, n_meta, meta_lines = {}, 0, {}
         for ln in all_lines:
             s = ln.strip()
             if s.startswith("#"):
@@ -233,6 +236,7 @@ class RawTable:
                 if ":" in body:
                     key, val = body.split(":", 1)
                     meta[key.strip().lower()] = val.strip()
+                    meta_lines[key.strip().lower()] = n_meta
             elif s == "" and n_meta == len(meta) and n_meta:
                 n_meta += 1
             else:
@@ -297,6 +301,7 @@ class RawTable:
                                  value=df.iat[r, c].split("\n")[0][:40],
                                  expected='quotes in pairs ("...") around a cell')
         tab = cls(path, meta, df, lines, headers, raw)
+        tab.meta_lines = meta_lines
         tab.unit_switch_notes = switches
         tab.switched = {parse_header(a).name: v for a, v in origin.items()}
         return tab
@@ -311,6 +316,18 @@ class RawTable:
                 col = later                     # the cell was written in the later unit
         return InputError(problem, file=self.path, line=line, column=col, value=value,
                           expected=expected)
+
+    def unit_groups(self, name) -> list:
+        """The units of column `name`, each with the rows written in it: a list of
+        (:class:`~workbench.units.Header`, bool rows [n]); one entry for a column written
+        in one unit, one more per later column of a unit switch (:mod:`.unitswitch`), so
+        that each cell is converted to SI once from the unit it was written in."""
+        rows = np.ones(len(self.lines), bool)
+        out = []
+        for later, mask in self.switched.get(name, ()):
+            out.append((parse_header(later), np.asarray(mask, bool)))
+            rows &= ~np.asarray(mask, bool)
+        return [(self.headers[name], rows)] + out
 
     @property
     def header_line(self) -> int:

@@ -5,6 +5,7 @@ import re
 from pathlib import Path
 
 from ..errors import InputError
+from .readbytes import read_hashed
 
 try:  # Python >= 3.11
     import tomllib
@@ -31,7 +32,7 @@ def read_toml(path, error=InputError, missing="file not found", expected="an exi
     """
     path = Path(path)
     try:
-        raw = path.read_bytes()
+        raw = read_hashed(path)         # the bytes parsed are the bytes hashed
     except FileNotFoundError:
         raise error(missing, file=path, expected=expected) from None
     except IsADirectoryError:
@@ -62,3 +63,56 @@ def read_toml(path, error=InputError, missing="file not found", expected="an exi
     except RecursionError:
         raise error("TOML nested too deeply to read", file=path,
                     expected="tables and arrays nested a few levels at most") from None
+
+
+_HEADER = re.compile(r"^\s*\[\[?\s*([^\[\]]+?)\s*\]\]?\s*(?:#.*)?$")
+_KEY = re.compile(r"^\s*((?:[A-Za-z0-9_\-]+|\"[^\"]*\"|'[^']*')"
+                  r"(?:\s*\.\s*(?:[A-Za-z0-9_\-]+|\"[^\"]*\"|'[^']*'))*)\s*=")
+
+
+def _dotted(name: str) -> list[str]:
+    """The parts of a dotted TOML name, unquoted (``site."a b".x`` -> [site, a b, x])."""
+    return [p.strip().strip("\"'") for p in
+            re.findall(r"\"[^\"]*\"|'[^']*'|[^.]+", name)]
+
+
+def toml_line(text_lines, path, start: int = 0, end: int | None = None) -> int | None:
+    """The 1-based line where the key or table `path` is written, in lines [start, end).
+
+    Parameters
+    ----------
+    text_lines : list of str
+        The file's lines.
+    path : sequence of str
+        The dotted name of the key or table (``["site", "critical_loads", "moorland"]``);
+        an array of tables (``[[site]]``) is named without its index: give the lines of
+        one of its tables as [start, end).
+
+    Returns
+    -------
+    int or None
+        The first line that writes `path` or something inside it: a table header
+        (``[site.critical_loads.moorland]``, or a table below it), a key of the table
+        above (``cl_nut_n = ...`` under ``[site.critical_loads]``), or a dotted key
+        (``critical_loads.cl_nut_n = ...`` under ``[site]``); None when none does.
+
+    >>> toml_line(["[[site]]", "id = 1", "", "[site.reciever.x]", "a = 1"], ["site", "reciever"])
+    4
+    >>> toml_line(["[a]", "b.c = 1"], ["a", "b", "c"]), toml_line(["x = 1"], ["y"])
+    (2, None)
+    """
+    want = [str(p) for p in path]
+    stop = len(text_lines) if end is None else min(end, len(text_lines))
+    table: list[str] = []
+    for i in range(max(start, 0), stop):
+        ln = text_lines[i]
+        m = _HEADER.match(ln)
+        if m:
+            table = _dotted(m.group(1))
+            if table[:len(want)] == want:
+                return i + 1
+            continue
+        m = _KEY.match(ln)
+        if m and (table + _dotted(m.group(1)))[:len(want)] == want:
+            return i + 1
+    return None

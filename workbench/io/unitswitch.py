@@ -2,10 +2,12 @@
 
 A long record joined from a laboratory's yearly exports often holds ``SO4 [mg/L]``
 filled in the early years and ``SO4 [ueq/L]`` in the later ones.  Each row must fill at
-most one of them; the later column's numbers are converted once, here at the reading
-boundary, into the unit of the first column of that species (a constant factor between
-two concentrations of one species, :func:`workbench.units.to_amount`), and the reader
-then sees one column.  A note says which lines held which unit.
+most one of them.  The two columns are joined into one column of text, each cell as
+written, and the rows of each later column are remembered with its unit
+(:attr:`workbench.io.table.RawTable.switched`): the reader converts each cell to SI once,
+with pint, from the unit of the column it was written in
+(:meth:`~workbench.io.table.RawTable.unit_groups`), never through the other column's
+unit nor through text.  A note says which lines held which unit.
 """
 from __future__ import annotations
 
@@ -14,8 +16,6 @@ import pandas as pd
 
 from ..errors import InputError
 from ..units import parse_header, to_amount
-
-_FMT = "%.10g"
 
 
 def _line_span(lines) -> str:
@@ -39,12 +39,13 @@ def merge_unit_switches(df: pd.DataFrame, path, header_line: int, lines) -> tupl
     Returns
     -------
     df : DataFrame
-        Without the later columns, whose numbers are in the first column's unit.
+        Without the later columns, whose cells (as written, in the later unit) are in
+        the first column.
     notes : list of str
         One line per joined column.
     origin : dict
         First column -> list of (later column, bool mask of its rows): where a cell of
-        the joined column was written, for the located messages.
+        the joined column was written, for its unit and the located messages.
 
     Raises
     ------
@@ -90,16 +91,9 @@ def merge_unit_switches(df: pd.DataFrame, path, header_line: int, lines) -> tupl
                              expected=f"units of one kind for {h.species} ({a!r} is a "
                              f"{kind_a.replace('_', ' ')}, {col!r} a {kind_b.replace('_', ' ')}: "
                              "no constant factor between them); convert one before reading")
-        factor = float(np.asarray(xb) / np.asarray(xa))
-        text = df[col].to_numpy(dtype=object)
-        body = pd.Series(text[fb]).str.lstrip("<").str.strip()
-        num = pd.to_numeric(body, errors="coerce").to_numpy(float)
-        cens = pd.Series(text[fb]).str.startswith("<").to_numpy()
-        conv = np.where(np.isfinite(num),
-                        np.char.add(np.where(cens, "<", ""), np.char.mod(_FMT, num * factor)),
-                        text[fb].astype(str))          # not a number: left for the reader's
-        merged = df[a].to_numpy(dtype=object).copy()   # located error
-        merged[fb] = conv.astype(object)
+        factor = float(np.asarray(xb) / np.asarray(xa))     # for the note only
+        merged = df[a].to_numpy(dtype=object).copy()
+        merged[fb] = df[col].to_numpy(dtype=object)[fb]     # the cells as written
         df[a] = merged
         drop.append(col)
         origin.setdefault(a, []).append((col, fb))
@@ -107,6 +101,7 @@ def merge_unit_switches(df: pd.DataFrame, path, header_line: int, lines) -> tupl
         notes.append(f"{path.name}: {h.species} in {ha.unit} ({a!r}, "
                      f"{_line_span(la) if la.size else 'no line'}) and in {h.unit} ({col!r}, "
                      f"{_line_span(lb) if lb.size else 'no line'}): read as one column, "
-                     f"{h.unit} x {factor:.6g} = {ha.unit}; declare the laboratory's change "
+                     f"each value converted from its own unit ({h.unit} x {factor:.6g} = "
+                     f"{ha.unit}); declare the laboratory's change "
                      "in sites.toml ([[site.change]] what = \"units\") so that trends name it")
     return (df.drop(columns=drop) if drop else df), notes, origin
