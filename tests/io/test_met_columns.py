@@ -180,3 +180,16 @@ def test_night_hours_agree_with_pvlib_and_clear_sky_passes(tmp_path):
     met, ledger = read_met(p, cat)
     assert np.isnan(met["solar_radiation"]).all()
     assert ledger.reasons()["reason"].str.contains("not a global radiation").any()
+
+
+def test_swap_in_a_winter_is_named_on_both_columns(tmp_path, demo_cat, ridge_rows):
+    # January-February: the humidity column (holding degC) barely follows the short
+    # days' sun, but beside a temperature column holding a humidity it is the other half
+    # of the swap; before this, its positive hours were read as humidity
+    df = ridge_rows.iloc[:24 * 59].copy()
+    df["temperature [degC]"], df["relative_humidity [%]"] = (
+        df["relative_humidity [%]"].to_numpy(), df["temperature [degC]"].to_numpy())
+    met, reasons = _read(tmp_path, df, demo_cat)
+    assert np.isnan(met["temperature"]).all() and np.isnan(met["relative_humidity"]).all()
+    found = _column_reasons(reasons)["reason"].tolist()
+    assert len(found) == 2 and all("look swapped" in r for r in found)

@@ -25,7 +25,9 @@ like and what was expected (the ledger adds the file and the lines):
   temperature column whose median reads above 40 degC, whose values all lie within
   0-100 and which falls when the sun is up holds a relative humidity in %; a
   humidity column that rises with the sun and reads below 45 % holds a temperature in
-  degC.  Both at once: the two columns are swapped.
+  degC.  Both at once, or one of them with the other column reading like the first's
+  variable (a temperature median above 40 degC within 0-100, a humidity median below
+  45 %): the two columns are swapped.
 
 Every check needs :data:`MIN_HOURS` hours of the site (a week: our choice) and runs
 before the unit checks of :mod:`.metchecks`, whose reasons (degF, km/h, kPa) would
@@ -219,6 +221,12 @@ def column_checks(values, codes, n_sites, elevation_deg, raw_headers=None):
             _, med = _site_stats(codes, n_sites, rh)
             rh_bad = (med < RH_AS_TEMPERATURE_MEDIAN) & (r_rh > SUN_CORRELATION)
             rh_med = med
+        # one column found, the other read like the first's variable: swapped, though
+        # its own relation to the sun is weak (a winter's short days)
+        if "temperature" in values and "relative_humidity" in values:
+            t_like = (t_med > HOT_MEDIAN) & (inside == 1.0)
+            t_bad, rh_bad = (t_bad | (rh_bad & t_like),
+                             rh_bad | (t_bad & (rh_med < RH_AS_TEMPERATURE_MEDIAN)))
         for s in np.flatnonzero(t_bad | rh_bad):
             both = t_bad[s] and rh_bad[s]
             if t_bad[s]:
@@ -227,16 +235,15 @@ def column_checks(values, codes, n_sites, elevation_deg, raw_headers=None):
                         "swapped?)")
                 out.append(("temperature", codes == s,
                             f"{head('temperature')} reads {t_med[s] - ZERO_CELSIUS:.3g} "
-                            f"degC as median, all within 0..100, and falls when the sun is "
-                            f"up (correlation {r_t[s]:+.2f} with the solar radiation): "
-                            f"{what}, expected a temperature, warmest in the afternoon "
-                            f"(masked)"))
+                            f"degC as median, all within 0..100 (correlation "
+                            f"{r_t[s]:+.2f} with the solar radiation): {what}, expected a "
+                            f"temperature, warmest in the afternoon (masked)"))
             if rh_bad[s]:
                 what = ("the temperature and relative humidity columns look swapped"
                         if both else "a temperature in degC (a column shifted or swapped?)")
                 out.append(("relative_humidity", codes == s,
                             f"{head('relative_humidity')} reads {rh_med[s]:.0%} as median "
-                            f"and rises when the sun is up (correlation {r_rh[s]:+.2f} with "
-                            f"the solar radiation): {what}, expected a relative humidity, "
-                            f"lowest in the afternoon (masked)"))
+                            f"(correlation {r_rh[s]:+.2f} with the solar radiation): "
+                            f"{what}, expected a relative humidity, lowest in the afternoon "
+                            f"(masked)"))
     return out
