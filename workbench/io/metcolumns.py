@@ -59,8 +59,9 @@ MIN_NIGHT_HOURS = 100
 #: hourly precipitation (common practice: rain falls in well under half of the hours).
 RAIN_HOURS_SHARE, RAIN_MEDIAN_MM = 0.6, 1.0
 #: Wind: share of hours above the 75 m/s hard maximum, all within 0..360, from which
-#: the column holds a direction [-] (a direction spreads over 0-360 deg: most hours
-#: above 75; a wind speed has none; our choice).
+#: the column holds a direction [-], with as large a share above 180 (a direction
+#: spreads over 0-360 deg: most hours above 75, about half above 180; a wind speed has
+#: none, a km/h speed read as m/s few above 180; our choice).
 DIRECTION_SHARE = 0.25
 #: Correlation with the solar radiation beyond which a column follows (or opposes) the
 #: sun [-] (our choice; measured on the demo: temperature +0.4 to +0.6, relative
@@ -195,7 +196,11 @@ def column_checks(values, codes, n_sites, elevation_deg, raw_headers=None):
         ok = np.isfinite(u)
         share, n = _site_share(codes, n_sites, u > 75.0, ok)
         beyond, _ = _site_share(codes, n_sites, (u > 360.0) | (u < 0.0), ok)
-        bad = (n >= MIN_HOURS) & (share >= DIRECTION_SHARE) & (beyond == 0)
+        # a direction spreads over the whole circle; a speed in km/h has few hours
+        # above 180 (50 m/s)
+        half, _ = _site_share(codes, n_sites, u > 180.0, ok)
+        bad = ((n >= MIN_HOURS) & (share >= DIRECTION_SHARE) & (half >= DIRECTION_SHARE)
+               & (beyond == 0))
         for s in np.flatnonzero(bad):
             out.append(("wind_speed", codes == s,
                         f"{head('wind_speed')} is above 75 m/s at {share[s]:.0%} of this "
