@@ -271,7 +271,10 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
     # a column holding another variable (shifted or swapped): before the unit checks,
     # whose reasons would name a unit for it
     for name, sel, reason in column_checks(values, codes, len(names), sun_deg, raw_units):
-        mask(name, sel, reason)
+        if name == "solar_radiation":     # kept: a clock many hours off looks the same
+            flag(sel, reason)
+        else:
+            mask(name, sel, reason)
     # relative humidity written as a fraction under a % header (or the reverse)
     if "relative_humidity" in values:
         rh = values["relative_humidity"]

@@ -175,7 +175,7 @@ def column_checks(values, codes, n_sites, elevation_deg, raw_headers=None):
                         f"(absolute) at this site's night hours against a mean of "
                         f"{day_mean[s]:.3g} with the sun above {DAY_ELEVATION_DEG:g} deg: "
                         f"not a global radiation (a column shifted or swapped?), or labels "
-                        f"many hours off, expected about 0 W/m2 at night (masked)"))
+                        f"many hours off, expected about 0 W/m2 at night (kept)"))
         sane_radiation = np.where(site_rows(bad), np.nan, sr)
     # precipitation: zero at most hours
     if "precipitation" in values:
