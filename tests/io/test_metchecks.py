@@ -22,7 +22,7 @@ def test_clean_record_has_no_flags(tmp_path, cat):
 def test_pressure_in_kpa_under_hpa_header_is_masked(tmp_path, cat):
     met, led = read_met(_met(tmp_path, **{"pressure [hPa]": 101.0}), cat)
     assert np.isnan(met["pressure"]).all()
-    assert any("unit slip such as kPa" in r for r in _reasons(led))
+    assert any("kPa written under a hPa header?" in r for r in _reasons(led))
 
 
 def test_sea_level_pressure_at_elevated_site_is_kept_and_flagged(tmp_path, cat):

@@ -15,6 +15,7 @@ from ..surface.air import standard_pressure_at
 from ..surface.solar import solar_elevation_sine, time_parts
 from ..units import written_in
 from .common import join_reasons
+from .metcolumns import column_checks
 from .metvars import MET_VARIABLES, convert_met
 from .plausible import SENTINELS
 
@@ -166,6 +167,36 @@ def missing_codes(values, raw_units):
     return masked, reasons
 
 
+#: Units a station pressure is written in, with their size [Pa] (by definition).
+PRESSURE_UNITS = (("Pa", 1.0), ("hPa", 100.0), ("kPa", 1000.0), ("bar", 1e5))
+
+
+def pressure_slip_reason(median_pa, expected_pa, elevation_m, unit) -> str:
+    """The reason of a site's pressure far from its expected station pressure [text]:
+    the factor between them and, when it is a power of ten between two pressure
+    units, which unit the values look written in; otherwise another variable.
+
+    >>> pressure_slip_reason(962e3, 96.2e3, 420.0, "kPa")[:93]
+    'pressure median 9.62e+05 Pa read under the header kPa, 10x the 962 hPa expected at 420 m: hPa'
+    """
+    ratio = float(median_pa) / float(expected_pa)
+    head = (f"pressure median {float(median_pa):.3g} Pa read under the header {unit or '?'}, "
+            f"{ratio:.3g}x the {float(expected_pa) / 100:.0f} hPa expected at "
+            f"{float(elevation_m):.0f} m")
+    k = np.log10(ratio) if ratio > 0 else np.nan
+    if np.isfinite(k) and abs(k - np.rint(k)) < 0.05 and np.rint(k) != 0:
+        factor = 10.0 ** np.rint(k)
+        size = dict(PRESSURE_UNITS).get(unit)
+        real = [u for u, f in PRESSURE_UNITS
+                if size is not None and np.isclose(size / factor, f)]
+        if real:
+            return (f"{head}: {real[0]} written under a {unit} header?, expected the "
+                    f"station pressure in {unit} (masked)")
+        return f"{head}: a unit slip by a factor {factor:g}?, expected the station pressure (masked)"
+    return (f"{head}: not a station pressure (a column shifted or swapped?), expected "
+            f"the station pressure (masked)")
+
+
 def expected_station_pressure(elevation_m):
     """Station pressure of the ICAO standard atmosphere at an elevation [Pa]
     (:func:`workbench.surface.air.standard_pressure_at`)."""
@@ -232,6 +263,18 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
     for name, sel in coded.items():
         values[name] = np.where(sel, np.nan, values[name])
     parts.extend(coded_reasons)
+    # the sun at each row's hour middle (the column checks and the night check)
+    sun_deg = None
+    if "solar_radiation" in values:
+        sun_deg = solar_elevation_deg(t - np.timedelta64(30, "m"), per_site("latitude"),
+                                      per_site("longitude"))
+    # a column holding another variable (shifted or swapped): before the unit checks,
+    # whose reasons would name a unit for it
+    for name, sel, reason in column_checks(values, codes, len(names), sun_deg, raw_units):
+        if name == "solar_radiation":     # kept: a clock many hours off looks the same
+            flag(sel, reason)
+        else:
+            mask(name, sel, reason)
     # relative humidity written as a fraction under a % header (or the reverse)
     if "relative_humidity" in values:
         rh = values["relative_humidity"]
@@ -252,9 +295,10 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
         med = frame.assign(v=p).groupby("site")["v"].transform("median").to_numpy()
         ratio = med / p_exp
         unit_slip = (ratio < 0.5) | (ratio > 2.0)
-        mask("pressure", unit_slip,
-             "pressure far from the station pressure expected at the site's elevation "
-             "(a unit slip such as kPa for hPa?) (masked)")
+        unit = str(raw_units.get("pressure", "")).strip()
+        for c in np.unique(codes[unit_slip]):
+            i = int(np.flatnonzero(codes == c)[0])
+            mask("pressure", codes == c, pressure_slip_reason(med[i], p_exp[i], elev[i], unit))
         sea = (~unit_slip & (elev > 200) & (np.abs(med - STANDARD_PRESSURE) < np.abs(med - p_exp))
                & (np.abs(ratio - 1) > 0.015))
         flag(sea, "pressure looks reduced to sea level, not station pressure (kept)")
@@ -325,11 +369,7 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
             mask(name, (v < lo) | (v > hi), f"{name} outside {range_text(name, lo, hi)} (masked)")
     # radiation at night
     if "solar_radiation" in values:
-        lat = per_site("latitude")
-        lon = per_site("longitude")
-        mid = t - np.timedelta64(30, "m")
-        elev = solar_elevation_deg(mid, lat, lon)
-        night = elev < NIGHT_ELEVATION_DEG
+        night = sun_deg < NIGHT_ELEVATION_DEG
         bad = night & (values["solar_radiation"] > NIGHT_RADIATION_MAX)
         share = pd.Series(bad[night]).groupby(codes[night]).mean() if night.any() else pd.Series(dtype=float)
         systematic = np.isin(codes, share.index[share > NIGHT_SHARE_HINT].to_numpy())

@@ -65,6 +65,15 @@ MIN_SUNNY_DAYS = 20
 #: most 0.06 h a year on the demo, -0.40 h with a strong afternoon cloud maximum;
 #: section 4; our choice from these measured lags).
 LAG_NOTE_H = 0.75
+#: A whole-record lag from this up to LAG_NOTE_H, late (positive), gives a hint [h]: a
+#: logger that labels the middle of its averaging interval, read as its end, runs 0.5 h
+#: late.  Only late: an afternoon cloud maximum pulls the lag early (to -0.42 h on the
+#: invented years of tests/clock_years.py, -0.40 h on the records of section 4), so an
+#: early half hour cannot be told from cloud.  0.3 h is beyond the 20-day sampling
+#: spread of a clean record (0.21 h, section 4) and below a half hour under a moderate
+#: afternoon cloud maximum (0.36-0.42 h); measured detection rates: docs/data_formats.md,
+#: section 4 (our choice from these numbers).
+HALF_HOUR_HINT_H = 0.3
 #: Months of the summer half north of the equator (swapped south of it): April to
 #: September, the half-year around the June solstice (common practice).
 SUMMER_MONTHS_NORTH = (4, 5, 6, 7, 8, 9)
@@ -256,7 +265,9 @@ def notes_from_lags(table, site_ids, catalogue, file_name) -> list[str]:
     -------
     list of str
         A note per site whose lag is at least :data:`LAG_NOTE_H` (whole record, summer
-        only, or changing between halves or years), and one per site not judged.
+        only, or changing between halves or years), one per site not judged, and a
+        hint per site whose whole-record lag is late by :data:`HALF_HOUR_HINT_H` or
+        more but under :data:`LAG_NOTE_H` (a half hour).
     """
     notes = []
     for site, row in zip(site_ids, table.itertuples(index=False)):
@@ -294,6 +305,16 @@ def notes_from_lags(table, site_ids, catalogue, file_name) -> list[str]:
         elif apart:
             notes.append(f"{head}: the lag changes between years ({each}): a logger clock "
                          f"reset or drifting? Check the logger's clock log{kept}")
+        if HALF_HOUR_HINT_H <= row.lag < LAG_NOTE_H and not apart:   # not a mix of years
+            notes.append(f"{head}: hint: lag {_hours(row.lag)} (median of {int(row.days)} "
+                         f"sunny days; summer {_hours(row.lag_summer)}, winter "
+                         f"{_hours(row.lag_winter)}), below the {LAG_NOTE_H:g} h of a clock "
+                         f"error: the radiation runs late against the sun by about half an "
+                         f"hour. Labels of the middle of the averaging interval read as its "
+                         f"end (+0.5 h)? If so, the interval ends 30 min after each label. "
+                         f"A forenoon cloud maximum (fog or low cloud clearing late) also "
+                         f"makes a late lag, and an afternoon one can pull a whole-hour "
+                         f"error down to this{kept}")
     return notes
 
 
