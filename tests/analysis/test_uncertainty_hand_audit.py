@@ -419,6 +419,46 @@ def test_gap_filled_vd_error_acts_on_the_filled_hours_only(tmp_path):
                                   np.broadcast_to(point[:, _j(hand, "SO2", "dry")], (N, 3)))
 
 
+def test_gap_filled_vd_error_weighs_the_deposition_the_filled_hours_carry(tmp_path):
+    """docs/methods_uncertainty.md, "gap-filled Vd eta": the fill error acts on the
+    share of the sampling period's deposition that its filled hours carry, not on their
+    share of its hours.  HNO3's Vd modelled, the same met every day (a sun from 08 to
+    16 h), so its Vd is a daily cycle v(h) of the hour alone and a filled hour takes
+    the mean cycle at its hour.  Eight day hours of two days left out of the 7th sample
+    (January) and seven night hours of one day out of the 11th (February).  By hand:
+    v(h) the mean of the modelled hours at each hour of day (velocities.nc's vd_HNO3,
+    the engine's output, not the module under test), phi = sum over the gap hours of
+    v(h) / sum over the sample's hours of v(h); with the fill error alone D_p/D_p0 - 1 =
+    a_n phi_n eta_n / sum a, Var = s^2 (a_n phi_n / sum a)^2 (moments of a normal, from
+    memory).  A day gap weighs more than its hours (Vd higher by day), a night gap
+    less; the old code gave both their share of hours."""
+    from analysis.hand_site import BOUNDS, write_site
+    gaps = [("2021-01-10T09:00", "2021-01-10T17:00"), ("2021-01-12T09:00", "2021-01-12T17:00"),
+            ("2021-02-03T00:00", "2021-02-03T07:00")]
+    hand = write_site(tmp_path / "daygaps", fixed={"SO2": 0.7, "pSO4": 0.15}, met_gaps=gaps)
+    sc, study, res = hand
+    vd = study.velocities(sc.options["dry"])["vd_HNO3"].sel(site="wren").isel(receptor=0)
+    when = pd.DatetimeIndex(vd["time"].values)
+    v = vd.values
+    cycle = pd.Series(v).groupby(when.hour).mean()       # NaN (missing met) left out
+    assert cycle.max() > 1.2 * cycle.min()                # a real day-night contrast
+    s = 0.3
+    comp, point = _draws(hand, vd_fill_rel_sd=s)
+    j = _j(hand, "HNO3", "dry")
+    a = dry_parts("HNO3")                      # C t (x the daily Vd sum, common) by hand
+    r = comp[:, :, j] / point[:, j]
+    np.testing.assert_array_equal(r[:, 0], 1.0)                 # December: nothing filled
+    for m, n, n_gap in ((1, 6, 16), (2, 10, 7)):
+        inside = (when > BOUNDS[n]) & (when <= BOUNDS[n + 1])   # end-of-hour labels
+        gap = inside & ~np.isfinite(v)
+        assert gap.sum() == n_gap
+        phi = cycle[when.hour[gap]].sum() / cycle[when.hour[inside]].sum()
+        hours = n_gap / inside.sum()
+        assert abs(phi / hours - 1) > 0.15                   # the two rules differ here
+        share = a[n] * phi / a[MONTH == m].sum()
+        _close_var(r[:, m], (s * share) ** 2)
+
+
 def test_a_pwm_filled_from_the_seasonal_mean_gets_its_own_error(tmp_path):
     """docs/methods_uncertainty.md, "PWM filled from the seasonal climatology": normal,
     mean 1, SD `pwm_fill_rel_sd`, random per period and ion, replacing the sample

@@ -85,7 +85,8 @@ class LinearLayer:
     sites : list of SiteLayer
         In the order of ``budget.site``.
     period_year : ndarray (P,) of int
-        Year of each period, for the factors that are systematic within a site-year.
+        Year of each period, for the systematic factors when they are drawn anew
+        each year (``systematic_errors = "each_year"``).
     wet_component : dict
         Component index -> wet ion or ``"nssSO4"``.
     tracer : str
