@@ -418,6 +418,58 @@ def row_filled_hours(site_index, a, b, c_fill, pa, pb, cn=None):
     return part, hours
 
 
+def row_filled_deposition_share(site_index, a, b, cs, c_fill, pa, pb, cn=None):
+    """The share of each sampling period's deposition in each reporting period that its
+    hours without a modelled Vd carry [1] (for the gap-fill error of the Monte Carlo).
+
+    A sampling period deposits C x (sum of its hourly effective Vd) (C constant over
+    it), so the part its filled hours carry is the sum of their filled Vd over the sum
+    of all, and an hour without any Vd carries the sampling period's mean effective Vd
+    (as in :func:`workbench.dryflux.share_to_periods`).  A gap of day hours (high Vd)
+    weighs more than as many night hours.  The hours and counts are those of
+    :func:`row_filled_hours` (the budget's reckoning); where the overlap carries no Vd
+    at all the share of hours is returned.
+
+    Parameters
+    ----------
+    site_index, a, b : ndarray of int (n,)
+        Site row and hour bounds of each sampling period.
+    cs : ndarray (S, R, T + 1)
+        Cumulative effective Vd [m s-1, or mol m-2 s-1 for a mixing ratio].
+    c_fill : ndarray (S, R, T + 1)
+        Cumulative count of filled hours [1].
+    pa, pb : ndarray of int (P,)
+        Hour bounds of the reporting periods.
+    cn : ndarray (S, R, T + 1), optional
+        Cumulative count of the hours with a finite effective Vd (None: every hour).
+
+    Returns
+    -------
+    ndarray (n, P, R) [1]
+    """
+    imputed, hours = row_filled_hours(site_index, a, b, c_fill, pa, pb, cn)
+    filled_h = np.diff(c_fill, axis=-1) > 0                    # (S, R, T)
+    c_vf = np.zeros(cs.shape)
+    np.cumsum(np.where(filled_h, np.diff(cs, axis=-1), 0.0), axis=-1, out=c_vf[..., 1:])
+    si = site_index[:, None]
+    lo = np.maximum(a[:, None], pa[None, :])              # (row, period)
+    hi = np.maximum(np.minimum(b[:, None], pb[None, :]), lo)
+    v_fill = c_vf[si, :, hi] - c_vf[si, :, lo]            # (row, period, R)
+    v_all = cs[si, :, hi] - cs[si, :, lo]
+    if cn is not None:         # an hour without Vd carries the row's mean Vd
+        n_miss = hours[:, :, None] - (cn[si, :, hi] - cn[si, :, lo])
+        whole = (cs[site_index, :, b] - cs[site_index, :, a])[:, None, :]
+        n_whole = (cn[site_index, :, b] - cn[site_index, :, a])[:, None, :]
+        with np.errstate(invalid="ignore", divide="ignore"):
+            mean_v = np.where(n_whole > 0, whole / n_whole, 0.0)
+        v_fill = v_fill + n_miss * mean_v
+        v_all = v_all + n_miss * mean_v
+    with np.errstate(invalid="ignore", divide="ignore"):
+        by_hours = imputed / np.maximum(hours, 1.0)[:, :, None]
+        share = np.where(v_all > 0, v_fill / np.where(v_all > 0, v_all, 1.0), by_hours)
+    return np.clip(share, 0.0, 1.0)
+
+
 @_graph.stage("period_shares")
 def period_shares(o, rows, periods, n_sites, times):
     """One piece of rows shared among reporting periods (:func:`share_to_periods`)."""

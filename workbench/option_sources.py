@@ -211,6 +211,9 @@ UNCERTAINTY = {
                         "limit, about half the limit"),
     "vd_fill_rel_sd": ("our choice", "0.3, from memory of hour-to-hour Vd variability"),
     "pwm_fill_rel_sd": ("from memory", "0.3, the year-to-year variability of PWMs"),
+    "systematic_errors": ("our choice", "shared: a scheme's bias and a gauge's catch repeat "
+                          "every year, so a span's range does not narrow with its years "
+                          "(docs/methods_uncertainty.md)"),
 }
 
 SENSITIVITY = {

@@ -142,15 +142,44 @@ def test_factors_are_independent_unless_documented_shared(tiny):
     assert (np.corrcoef(ratios)[np.triu_indices(3, 1)] > 0.5).all()
 
 
-def test_years_and_sites_draw_independent_systematic_factors(tiny):
+def test_years_and_sites_draw_independent_systematic_factors_each_year(tiny):
+    """``systematic_errors = "each_year"`` (the old treatment, kept for comparison):
+    the Vd factor and the gauge catch are drawn anew for every site and year."""
     _, _, _, lay = tiny
-    opt = U.UncertaintyOptions(draws=N, seed=5, **{**OFF, "vd_gsd": {"SO2": 1.5}})
+    opt = U.UncertaintyOptions(draws=N, seed=5,
+                               **{**OFF, "vd_gsd": {"SO2": 1.5}, "gauge_catch_rel_sd": 0.1,
+                                  "systematic_errors": "each_year"})
     a = U.site_noise(lay.sites[0], opt, N, 3, 1, (5, "quill"), 2019)
     b = U.site_noise(lay.sites[0], opt, N, 3, 1, (5, "other"), 2019)
     k = U.DRY_SPECIES.index("SO2")
     lim = 5 / np.sqrt(N)
     assert abs(np.corrcoef(np.log(a.vd[:, 0, k]), np.log(a.vd[:, 1, k]))[0, 1]) < lim
     assert abs(np.corrcoef(np.log(a.vd[:, 0, k]), np.log(b.vd[:, 0, k]))[0, 1]) < lim
+    assert abs(np.corrcoef(a.gauge[:, 0], a.gauge[:, 1])[0, 1]) < lim
+
+
+def test_systematic_factors_shared_by_years_vd_by_sites_too(tiny):
+    """docs/methods_uncertainty.md, "Systematic or random" (the default, "shared"): the
+    Vd factor is the same in every year and at every site of a seed (a scheme's bias),
+    the gauge catch the same in every year of a site (its gauge) and independent
+    between sites (each its own gauge).  On the old code every year and site drew its
+    own (correlation 0 within 5 / sqrt(n))."""
+    _, _, _, lay = tiny
+    opt = U.UncertaintyOptions(draws=N, seed=5, **{**OFF, "vd_gsd": {"SO2": 1.5},
+                                                   "gauge_catch_rel_sd": 0.1})
+    a = U.site_noise(lay.sites[0], opt, N, 3, 1, (5, "quill"), 2019)
+    b = U.site_noise(lay.sites[0], opt, N, 3, 1, (5, "other"), 2019)
+    k = U.DRY_SPECIES.index("SO2")
+    for y in (1, 2):
+        np.testing.assert_array_equal(a.vd[:, y], a.vd[:, 0])
+        np.testing.assert_array_equal(a.gauge[:, y], a.gauge[:, 0])
+    np.testing.assert_array_equal(a.vd, b.vd)
+    assert np.log(a.vd[:, 0, k]).std() == pytest.approx(np.log(1.5), rel=5 / np.sqrt(2 * N))
+    assert abs(np.corrcoef(a.gauge[:, 0], b.gauge[:, 0])[0, 1]) < 5 / np.sqrt(N)
+    # a run from another year on draws the same shared factors (named by seed and site)
+    later = U.site_noise(lay.sites[0], opt, N, 1, 1, (5, "quill"), 2023)
+    np.testing.assert_array_equal(later.vd[:, 0], a.vd[:, 0])
+    np.testing.assert_array_equal(later.gauge[:, 0], a.gauge[:, 0])
 
 
 def test_a_site_year_factor_does_not_depend_on_the_run(tiny):

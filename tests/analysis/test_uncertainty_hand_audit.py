@@ -12,7 +12,8 @@ What test_uncertainty_analytic.py does not do, and this file does:
   gauge catch on the wet ions, the micrometeorology on the Vd), for the wet, dry and
   total sums;
 * the correlation of draws across the calendar years and across the sites (the docs:
-  systematic per site-year, independent between years and sites), at the level of the
+  the Vd factor shared by every year and site, the gauge catch by a site's years; each
+  year its own with ``systematic_errors = "each_year"``), at the level of the
   components of monthly periods, not of the factors alone.
 
 Sources beside each check.  Expected values never come from workbench.analysis; the
@@ -222,13 +223,14 @@ def test_s_and_n_draws_share_the_documented_factors(hand):
         _close_corr(s_wet, n_dry, 0.0)                      # wet and dry independent
 
 
-def test_systematic_factors_are_shared_within_a_year_not_across(hand):
-    """docs/methods_uncertainty.md, "Correlation structure": the Vd factors and the
-    gauge catch are drawn once per site and calendar year and act on every period of
-    that year; different years and different sites are independent.  Here at the level
-    of the monthly components: January and February 2021 move by the same ratio, draw
-    for draw; December 2020 is uncorrelated with January 2021 (another year)."""
-    comp, point = _draws(hand, vd_gsd={**OFF["vd_gsd"], "SO2": 1.6}, gauge_catch_rel_sd=0.1)
+def test_systematic_factors_drawn_each_year_are_shared_within_a_year_not_across(hand):
+    """``systematic_errors = "each_year"`` (the old treatment, for comparison): the Vd
+    factors and the gauge catch are drawn once per site and calendar year and act on
+    every period of that year; different years are independent.  Here at the level of
+    the monthly components: January and February 2021 move by the same ratio, draw for
+    draw; December 2020 is uncorrelated with January 2021 (another year)."""
+    comp, point = _draws(hand, vd_gsd={**OFF["vd_gsd"], "SO2": 1.6}, gauge_catch_rel_sd=0.1,
+                         systematic_errors="each_year")
     for j in (_j(hand, "SO2", "dry"), _j(hand, "SO4", "wet"), _j(hand, "NO3", "wet")):
         r = comp[:, :, j] / point[:, j]
         np.testing.assert_allclose(r[:, 1], r[:, 2], rtol=1e-12)     # one year, one factor
@@ -236,13 +238,28 @@ def test_systematic_factors_are_shared_within_a_year_not_across(hand):
         assert r[:, 0].std() > 0.05                                  # and they are draws
 
 
+def test_systematic_factors_are_shared_across_years(hand):
+    """docs/methods_uncertainty.md, "Systematic or random" (default "shared"): a Vd
+    scheme's bias and a gauge's catch are the same every year, so December 2020 moves
+    by the same ratio as January and February 2021, draw for draw (correlation 1: the
+    law of propagation with r = 1, JCGM 100:2008, 5.2.2; on the old code r was 0)."""
+    comp, point = _draws(hand, vd_gsd={**OFF["vd_gsd"], "SO2": 1.6}, gauge_catch_rel_sd=0.1)
+    for j in (_j(hand, "SO2", "dry"), _j(hand, "SO4", "wet"), _j(hand, "NO3", "wet")):
+        r = comp[:, :, j] / point[:, j]
+        np.testing.assert_allclose(r[:, 0], r[:, 1], rtol=1e-12)     # two years, one factor
+        np.testing.assert_allclose(r[:, 1], r[:, 2], rtol=1e-12)
+        assert r[:, 0].std() > 0.05                                  # and they are draws
+
+
 def test_sites_draw_independent_errors_for_samples_of_the_same_identity(hand):
     """The two sites hold samples of the same sampler id ("") and start: a sample's
     identity leaves the site out and relies on the site's own key (noise.py).  Their
-    per-sample errors (depth, analyses) and their site-year factors must still be
-    independent: correlation 0 within 5 / sqrt(n), point budgets equal."""
+    per-sample errors (depth, analyses) and their gauge catch (each site its own gauge)
+    must still be independent: correlation 0 within 5 / sqrt(n), point budgets equal.
+    The Vd model factor is a scheme's bias, the same at both sites (docs, "Systematic
+    or random"): with it alone the two sites' ratios are equal draw for draw."""
     kw = dict(depth_rel_sd=0.2, precip_conc_rel_sd=0.2, air_rel_sd=0.2,
-              gauge_catch_rel_sd=0.1, vd_gsd={**OFF["vd_gsd"], "HNO3": 1.5})
+              gauge_catch_rel_sd=0.1)
     a, pa = _draws(hand, 0, **kw)
     b, pb = _draws(hand, 1, **kw)
     np.testing.assert_allclose(pa, pb, rtol=1e-12)
@@ -250,6 +267,11 @@ def test_sites_draw_independent_errors_for_samples_of_the_same_identity(hand):
         j = _j(hand, sp, path)
         for m in range(3):
             _close_corr(a[:, m, j], b[:, m, j], 0.0)
+    vd = dict(vd_gsd={**OFF["vd_gsd"], "HNO3": 1.5})
+    (a, pa), (b, pb) = _draws(hand, 0, **vd), _draws(hand, 1, **vd)
+    j = _j(hand, "HNO3", "dry")
+    np.testing.assert_allclose(a[:, :, j] / pa[:, j], b[:, :, j] / pb[:, j], rtol=1e-12)
+    assert (a[:, 0, j] / pa[0, j]).std() > 0.2
 
 
 def test_units_of_the_sums_with_every_factor_off(hand):
@@ -314,9 +336,9 @@ def test_a_straddling_sample_shares_its_errors_between_its_periods(tmp_path):
 
 
 def test_span_mean_of_years_with_independent_systematic_factors(tmp_path):
-    """The span row is the mean of the years that pass, each drawing its own Vd factor
-    (docs: independent between years, "a conservative choice for a multi-year mean
-    would be full correlation").  Through the public draws (annual_total_draws, eq/ha/yr)
+    """The span row is the mean of the years that pass; with ``systematic_errors =
+    "each_year"`` (the old treatment, kept for comparison) each year draws its own Vd
+    factor.  Through the public draws (annual_total_draws, eq/ha/yr)
     with the SO2 Vd factor alone (GSD g, s = ln g): Var(S_y) = D_y^2 (e^{2 s^2} -
     e^{s^2}) with D_y the year's dry SO2 in eq/ha/yr (2 eq per mol S, common practice),
     the two years uncorrelated, Var(span) = (Var_2020 + Var_2021) / 4 (log-normal
@@ -326,7 +348,8 @@ def test_span_mean_of_years_with_independent_systematic_factors(tmp_path):
     _, study, res = write_two_years(tmp_path / "years")
     g = 1.8
     q = U.monte_carlo(res, study, U.UncertaintyOptions(draws=N, seed=5, **{
-        **OFF, "vd_gsd": {**OFF["vd_gsd"], "SO2": g}}), years_only=True)
+        **OFF, "vd_gsd": {**OFF["vd_gsd"], "SO2": g}, "systematic_errors": "each_year"}),
+        years_only=True)
     d = q.total_draws["s_dep_eq_ha_yr"].sel(site="wren").isel(receptor=0)
     assert list(d["period"].values) == ["2020", "2021", "span"]
     names = [str(c) for c in res.years["component"].values]
@@ -342,6 +365,29 @@ def test_span_mean_of_years_with_independent_systematic_factors(tmp_path):
     _close_var(span, var_y.sum() / 4)
     full = (so2.mean()) ** 2 * (np.exp(2 * s2) - np.exp(s2))       # fully correlated
     assert var_y.sum() / 4 < 0.6 * full
+
+
+def test_span_mean_of_years_with_a_shared_systematic_factor(tmp_path):
+    """The default ("shared"): the SO2 Vd factor is the same in both years, so the span
+    is F x the mean of the years' points, draw for draw, and Var(span) is that of full
+    correlation, (mean D)^2 (e^{2 s^2} - e^{s^2}) (log-normal moments, from memory;
+    JCGM 100:2008 5.2.2 with r = 1).  On the old code it was about half of that."""
+    from analysis.hand_site import write_two_years
+    _, study, res = write_two_years(tmp_path / "years")
+    g = 1.8
+    q = U.monte_carlo(res, study, U.UncertaintyOptions(draws=N, seed=5, **{
+        **OFF, "vd_gsd": {**OFF["vd_gsd"], "SO2": g}}), years_only=True)
+    d = q.total_draws["s_dep_eq_ha_yr"].sel(site="wren").isel(receptor=0)
+    names = [str(c) for c in res.years["component"].values]
+    so2 = res.years["deposition"].sel(site="wren").isel(receptor=0).values[
+        :, names.index("S/dry/SO2")] * 2 * 1e4 * res.years["annual_factor"].values
+    other = res.years["total_deposition"].sel(site="wren", total="S_total").isel(
+        receptor=0).values * 2 * 1e4 * res.years["annual_factor"].values - so2
+    s2 = np.log(g) ** 2
+    y20, y21, span = (d.sel(period=p).values for p in ("2020", "2021", "span"))
+    f20, f21 = (y20 - other[0]) / so2[0], (y21 - other[1]) / so2[1]
+    np.testing.assert_allclose(f20, f21, rtol=1e-9)
+    _close_var(span, so2.mean() ** 2 * (np.exp(2 * s2) - np.exp(s2)))
 
 
 def test_gap_filled_vd_error_acts_on_the_filled_hours_only(tmp_path):
@@ -371,6 +417,46 @@ def test_gap_filled_vd_error_acts_on_the_filled_hours_only(tmp_path):
     # the other dry species (fixed Vd) take no fill error
     np.testing.assert_array_equal(comp[:, :, _j(hand, "SO2", "dry")],
                                   np.broadcast_to(point[:, _j(hand, "SO2", "dry")], (N, 3)))
+
+
+def test_gap_filled_vd_error_weighs_the_deposition_the_filled_hours_carry(tmp_path):
+    """docs/methods_uncertainty.md, "gap-filled Vd eta": the fill error acts on the
+    share of the sampling period's deposition that its filled hours carry, not on their
+    share of its hours.  HNO3's Vd modelled, the same met every day (a sun from 08 to
+    16 h), so its Vd is a daily cycle v(h) of the hour alone and a filled hour takes
+    the mean cycle at its hour.  Eight day hours of two days left out of the 7th sample
+    (January) and seven night hours of one day out of the 11th (February).  By hand:
+    v(h) the mean of the modelled hours at each hour of day (velocities.nc's vd_HNO3,
+    the engine's output, not the module under test), phi = sum over the gap hours of
+    v(h) / sum over the sample's hours of v(h); with the fill error alone D_p/D_p0 - 1 =
+    a_n phi_n eta_n / sum a, Var = s^2 (a_n phi_n / sum a)^2 (moments of a normal, from
+    memory).  A day gap weighs more than its hours (Vd higher by day), a night gap
+    less; the old code gave both their share of hours."""
+    from analysis.hand_site import BOUNDS, write_site
+    gaps = [("2021-01-10T09:00", "2021-01-10T17:00"), ("2021-01-12T09:00", "2021-01-12T17:00"),
+            ("2021-02-03T00:00", "2021-02-03T07:00")]
+    hand = write_site(tmp_path / "daygaps", fixed={"SO2": 0.7, "pSO4": 0.15}, met_gaps=gaps)
+    sc, study, res = hand
+    vd = study.velocities(sc.options["dry"])["vd_HNO3"].sel(site="wren").isel(receptor=0)
+    when = pd.DatetimeIndex(vd["time"].values)
+    v = vd.values
+    cycle = pd.Series(v).groupby(when.hour).mean()       # NaN (missing met) left out
+    assert cycle.max() > 1.2 * cycle.min()                # a real day-night contrast
+    s = 0.3
+    comp, point = _draws(hand, vd_fill_rel_sd=s)
+    j = _j(hand, "HNO3", "dry")
+    a = dry_parts("HNO3")                      # C t (x the daily Vd sum, common) by hand
+    r = comp[:, :, j] / point[:, j]
+    np.testing.assert_array_equal(r[:, 0], 1.0)                 # December: nothing filled
+    for m, n, n_gap in ((1, 6, 16), (2, 10, 7)):
+        inside = (when > BOUNDS[n]) & (when <= BOUNDS[n + 1])   # end-of-hour labels
+        gap = inside & ~np.isfinite(v)
+        assert gap.sum() == n_gap
+        phi = cycle[when.hour[gap]].sum() / cycle[when.hour[inside]].sum()
+        hours = n_gap / inside.sum()
+        assert abs(phi / hours - 1) > 0.15                   # the two rules differ here
+        share = a[n] * phi / a[MONTH == m].sum()
+        _close_var(r[:, m], (s * share) ** 2)
 
 
 def test_a_pwm_filled_from_the_seasonal_mean_gets_its_own_error(tmp_path):

@@ -8,8 +8,9 @@ wrong.  This module takes the computed pieces of a run once and keeps, per site:
 * dry: each air-sampling period's contribution to each reporting period and receptor
   ``A[n, P, R]`` [mol m-2] (:func:`workbench.dryflux.share_to_periods` with
   ``per_row``), whether its concentration was below detection, and the share of its
-  hours in each reporting period whose Vd is not modelled ``phi[n, P, R]`` [1] (the
-  budget's reckoning, :func:`workbench.drycomponents.row_filled_hours`); under
+  deposition in each reporting period that its hours without a modelled Vd carry
+  ``phi[n, P, R]`` [1] (the budget's reckoning of those hours,
+  :func:`workbench.drycomponents.row_filled_deposition_share`); under
   ``pair_split`` the species a pair is moved into holds both members' sampling periods
   with its Vd, the other none (:func:`workbench.drypairs.component_rows`);
 * wet: each (sample, period) piece's precipitation weight ``w`` [mm], the sample's
@@ -41,9 +42,9 @@ class DryPieces:
 
     contrib: np.ndarray      #: (n, P, R) [mol m-2] each sampling period's part
     censored: np.ndarray     #: (n,) bool, concentration below detection (substituted)
-    filled: np.ndarray       #: (n, P, R) [1] share of the row's hours in each period whose
-    #: Vd is not modelled (gap-filled, or missing and taken as the row's mean Vd), the
-    #: budget's reckoning (:func:`workbench.drycomponents.row_filled_hours`)
+    filled: np.ndarray       #: (n, P, R) [1] share of the row's deposition in each period
+    #: that its hours without a modelled Vd carry (gap-filled, or missing and taken as the
+    #: row's mean Vd; :func:`workbench.drycomponents.row_filled_deposition_share`)
     row_id: np.ndarray       #: (n,) int, row number within the component's rows (stable
     #: per site; under pair_split the moved-into species' rows are both members')
     ident: list              #: (n,) the identity of each row's sample: (member species,
@@ -84,7 +85,8 @@ class LinearLayer:
     sites : list of SiteLayer
         In the order of ``budget.site``.
     period_year : ndarray (P,) of int
-        Year of each period, for the factors that are systematic within a site-year.
+        Year of each period, for the systematic factors when they are drawn anew
+        each year (``systematic_errors = "each_year"``).
     wet_component : dict
         Component index -> wet ion or ``"nssSO4"``.
     tracer : str
@@ -135,7 +137,7 @@ def period_years(periods: pd.DataFrame) -> np.ndarray:
 
 
 def _dry_layers(rows, periods, sites, n_r, air):
-    from ..drycomponents import row_filled_hours
+    from ..drycomponents import row_filled_deposition_share
     from ..drypairs import component_rows
     from ..dryflux import period_axes, share_to_periods
     from ..periods import hour_bounds
@@ -162,11 +164,11 @@ def _dry_layers(rows, periods, sites, n_r, air):
             a, b = r["a"], r["b"]
             per_row.append(factor * np.where(np.isfinite(pr), pr, 0.0))
             si.append(r["site_index"])
-            # the budget's own reckoning of the hours not modelled (filled, or without
-            # any Vd), per sampling period and reporting period
-            imputed, hours = row_filled_hours(r["site_index"], a, b, c_fill, pa, pb,
-                                              r.get("cn"))
-            filled.append(imputed / np.maximum(hours, 1.0)[:, :, None])
+            # the share of the deposition that the hours not modelled (filled, or
+            # without any Vd: the budget's reckoning of them) carry, per sampling period
+            # and reporting period: a gap of day hours weighs more than one of nights
+            filled.append(row_filled_deposition_share(r["site_index"], a, b, r["cs"],
+                                                      c_fill, pa, pb, r.get("cn")))
             cens.append(np.asarray(r.get("censored", np.zeros(len(a), bool)), bool))
             # the sample behind each row: the member species (a bracket's rows are
             # both members'), its sampler and start

@@ -1,7 +1,9 @@
 """The random factors of the Monte Carlo (:mod:`.uncertainty`), drawn per site.
 
 Every stream is named by what it draws for, never by a place in a run: a site's
-streams by ``(seed, site id)``; the systematic factors of a site-year (Vd, gauge catch)
+streams by ``(seed, site id)``; the systematic factors shared by every year (the
+default) by the seed alone (Vd: a scheme's bias, shared by every site too) or by the
+site (its gauge catch), or, drawn anew each year (``systematic_errors = "each_year"``),
 by the calendar year; the random errors of a sample (depth, analyses, gap-filled Vd)
 by the sample's identity (sampler id, start: :func:`.layer.sample_identity`) and what
 they are of; a filled PWM's error by its period's bounds.  So a site, a site-year and a
@@ -21,7 +23,8 @@ class SiteNoise:
     """The factors of the draws at one site (arrays with the draws first).
 
     ``vd`` (D, Y, K) log-normal Vd factors [1] per year offset and dry species;
-    ``gauge`` (D, Y) gauge catch [1]; ``depth`` (D, n_samples); ``pconc`` ion ->
+    ``gauge`` (D, Y) gauge catch [1] (the same along Y, read-only broadcasts, when the
+    systematic factors are shared by the years); ``depth`` (D, n_samples); ``pconc`` ion ->
     (D, n_samples) and ``air`` species -> (D, n_rows) multiplicative errors of one
     sample [1] (below detection: their own spread); ``vd_fill`` species -> (D, n_rows)
     relative errors of a filled Vd; ``pwm_fill`` ion -> (D, P) factors of a filled PWM.
@@ -62,8 +65,30 @@ def _stream_key(seed_key) -> list:
 
 
 #: Tags after a site's key: the streams of a calendar year's systematic factors, and
-#: of a sample's (or a period's) random errors.
-YEAR_STREAM, SAMPLE_STREAM = 2, 3
+#: of a sample's (or a period's) random errors; and of the factors shared by every year
+#: (``systematic_errors = "shared"``): after the run's key (seed, no site) the Vd
+#: factors, after a site's key its gauge catch.
+YEAR_STREAM, SAMPLE_STREAM, RECORD_STREAM = 2, 3, 4
+
+
+def _shared_systematic(opt, seed_key, n_draws, n_years):
+    """The systematic factors of ``systematic_errors = "shared"``: normal deviates of
+    the Vd factors (D, Y, 1) shared and (D, Y, K) own, and the gauge catch (D, Y), each
+    drawn once and broadcast over the years (read-only views).
+
+    The Vd factors come from a stream named by the seed alone (a scheme's bias is the
+    same at every site and in every year), the gauge catch from one named by the site
+    (its own gauge, the same every year), so that neither depends on the years or the
+    other sites of the run.
+    """
+    d, k = n_draws, len(DRY_SPECIES)
+    rng_vd = np.random.default_rng(_stream_key((seed_key[0], "")) + [RECORD_STREAM, 0])
+    z_shared = rng_vd.standard_normal((d, 1, 1))
+    z_own = rng_vd.standard_normal((d, 1, k))
+    rng_g = np.random.default_rng(_stream_key(seed_key) + [RECORD_STREAM, 1])
+    gauge = _normal_factor(rng_g, opt.gauge_catch_rel_sd, (d, 1))
+    return (np.broadcast_to(z_shared, (d, n_years, 1)), np.broadcast_to(z_own, (d, n_years, k)),
+            np.broadcast_to(gauge, (d, n_years)))
 
 
 def keyed_normal_factor(key, what, idents, sd, n_draws, shift=1.0):
@@ -114,9 +139,11 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
         ``(seed, site id)``: each site has its own streams, named by its id, so that a
         site's numbers depend neither on the other sites nor on its place in the run.
     year0 : int
-        The first calendar year.  The systematic factors of a site-year (Vd, gauge
-        catch) come from a stream of their own per calendar year, so that they do not
-        depend on the years the run spans.
+        The first calendar year.  With ``opt.systematic_errors = "each_year"`` the
+        systematic factors of a site-year (Vd, gauge catch) come from a stream of their
+        own per calendar year, so that they do not depend on the years the run spans;
+        with "shared" (default) the Vd factors come from one stream of the seed and the
+        gauge catch from one of the site, the same in every year.
     period_bounds : tuple of ndarray, optional
         (start, end) of the reporting periods (datetime64); the error of a filled PWM
         is named by its period's bounds (by the period's place when not given).
@@ -132,14 +159,17 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
     key = _stream_key(seed_key)
     d = n_draws
     k = len(DRY_SPECIES)
-    z_shared = np.empty((d, n_years, 1))
-    z_own = np.empty((d, n_years, k))
-    gauge = np.empty((d, n_years))
-    for y in range(n_years):                 # a few years: one stream per calendar year
-        rng_y = np.random.default_rng(key + [YEAR_STREAM, int(year0) + y])
-        z_shared[:, y] = rng_y.standard_normal((d, 1))
-        z_own[:, y] = rng_y.standard_normal((d, k))
-        gauge[:, y] = _normal_factor(rng_y, opt.gauge_catch_rel_sd, (d,))
+    if getattr(opt, "systematic_errors", "shared") == "shared":
+        z_shared, z_own, gauge = _shared_systematic(opt, seed_key, d, n_years)
+    else:                                    # "each_year": anew per site and year
+        z_shared = np.empty((d, n_years, 1))
+        z_own = np.empty((d, n_years, k))
+        gauge = np.empty((d, n_years))
+        for y in range(n_years):             # a few years: one stream per calendar year
+            rng_y = np.random.default_rng(key + [YEAR_STREAM, int(year0) + y])
+            z_shared[:, y] = rng_y.standard_normal((d, 1))
+            z_own[:, y] = rng_y.standard_normal((d, k))
+            gauge[:, y] = _normal_factor(rng_y, opt.gauge_catch_rel_sd, (d,))
     ln_gsd = np.log([opt.gsd(sp) for sp in DRY_SPECIES])
     rho = opt.vd_shared_fraction
     vd = np.exp(ln_gsd * (np.sqrt(rho) * z_shared + np.sqrt(1 - rho) * z_own))

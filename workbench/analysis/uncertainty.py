@@ -9,10 +9,10 @@ draw is a few matrix products per site and never re-runs the engine:
             \\delta^{(d)}_n \\,(1 + \\phi_{npr} \\eta^{(d)}_n)
 
   with :math:`A` the sampling period's contribution, :math:`F` the Vd model factor
-  (log-normal, median 1, systematic within a site-year, correlated among species
-  through the shared micrometeorology), :math:`\\delta` the analytical error of the
-  sample (random per sample), :math:`\\phi` the share of its hours in the period
-  whose Vd is not modelled (gap-filled, or missing; the budget's reckoning) and
+  (log-normal, median 1, systematic: shared by every site and year, correlated among
+  species through the shared micrometeorology), :math:`\\delta` the analytical error
+  of the sample (random per sample), :math:`\\phi` the share of its deposition in the
+  period that its hours without a modelled Vd carry (gap-filled, or missing) and
   :math:`\\eta` the error of the fill (random per sample);
 * wet component of ion *X*: :math:`D = \\bar C_p P_p` with, per draw,
 
@@ -20,7 +20,7 @@ draw is a few matrix products per site and never re-runs the engine:
             \\bar C_p = \\frac{\\sum_{i\\,valid} w_{ip} \\varepsilon_i C_i \\delta_i}
                               {\\sum_{i\\,valid} w_{ip} \\varepsilon_i}
 
-  with :math:`g` the gauge catch (systematic per site-year), :math:`\\varepsilon` the
+  with :math:`g` the gauge catch (systematic: shared by a site's years), :math:`\\varepsilon` the
   depth error and :math:`\\delta` the analytical error (random per sample); a PWM
   filled from the multi-year seasonal means gets its own error instead, and the
   non-sea-salt sulfate is recomputed from the drawn SO4 and tracer PWMs.
@@ -58,6 +58,10 @@ DEFAULT_VD_GSD = {"SO2": 1.5, "pSO4": 1.8, "HNO3": 1.4, "pNO3": 1.8, "pNH4": 1.8
                   "NH3": 2.0, "NO2": 2.0}
 
 
+#: The ways of drawing the systematic factors (:attr:`UncertaintyOptions.systematic_errors`).
+SYSTEMATIC_ERRORS = ("shared", "each_year")
+
+
 @dataclass(frozen=True)
 class UncertaintyOptions:
     """The Monte Carlo of the budget (scenario section ``[uncertainty]``).
@@ -70,11 +74,12 @@ class UncertaintyOptions:
         Seed of the random numbers: the same seed gives the same numbers.
     vd_gsd : dict
         species -> geometric standard deviation of the Vd model factor [1], log-normal
-        with median 1, systematic within a site-year; 1 removes it.  Defaults from
+        with median 1; 1 removes it.  Defaults from
         memory of the model spread in Flechard et al. (2011), ACP 11, 2703.
+        Systematic: shared by every site and year (``systematic_errors``).
     vd_shared_fraction : float
         Share of the log-variance of every Vd factor that comes from the micrometeorology
-        (Ra, u*) common to all species at a site-year [1]; the rest is the species' own
+        (Ra, u*) common to all species [1]; the rest is the species' own
         surface and particle terms.  0.5 is our choice (no published value).
     air_rel_sd : float
         Relative standard deviation of an air concentration, random per sample [1]; 0.05
@@ -83,8 +88,9 @@ class UncertaintyOptions:
         Relative standard deviation of a precipitation concentration, random per sample
         and ion [1]; 0.05 (network QA practice for ion chromatography, from memory).
     gauge_catch_rel_sd : float
-        Relative standard deviation of the gauge catch, systematic per site-year [1];
-        0.05 (rain gauges, from memory; more where snow falls).
+        Relative standard deviation of the gauge catch [1], systematic: shared by a
+        site's years, its own at each site (``systematic_errors``); 0.05 (rain gauges,
+        from memory; more where snow falls).
     depth_rel_sd : float
         Relative standard deviation of a sample's precipitation depth, random per
         sample [1]; 0.05 (common practice, from memory).
@@ -94,11 +100,19 @@ class UncertaintyOptions:
         practice).
     vd_fill_rel_sd : float
         Relative standard deviation of a gap-filled hourly Vd (mean diurnal cycle),
-        random per sampling period, applied to the share of its hours filled [1]; 0.3
+        random per sampling period, applied to the share of its deposition that the
+        filled hours carry [1]; 0.3
         (our choice, from memory of hour-to-hour Vd variability).
     pwm_fill_rel_sd : float
         Relative standard deviation of a PWM filled from the multi-year seasonal PWM,
         random per period and ion [1]; 0.3 (from memory of year-to-year PWM variability).
+    systematic_errors : str
+        How the systematic factors (Vd model factor, gauge catch) are drawn: "shared"
+        (default) draws the Vd factors once for the whole run, shared by every site and
+        year (a scheme's bias repeats), and the gauge catch once per site, shared by its
+        years (the same gauge); "each_year" draws both anew for every site and calendar
+        year, as before (a span's range then narrows as 1/sqrt(years): for comparison
+        only).  docs/methods_uncertainty.md, "Systematic or random".
     """
 
     draws: int = 0
@@ -112,8 +126,12 @@ class UncertaintyOptions:
     censored_rel_sd: float = 0.577
     vd_fill_rel_sd: float = 0.3
     pwm_fill_rel_sd: float = 0.3
+    systematic_errors: str = "shared"
 
     def __post_init__(self):
+        if self.systematic_errors not in SYSTEMATIC_ERRORS:
+            raise ValueError(f"UncertaintyOptions.systematic_errors = {self.systematic_errors!r}"
+                             f"; expected one of {', '.join(map(repr, SYSTEMATIC_ERRORS))}")
         for name in ("draws", "seed"):
             v = getattr(self, name)
             if isinstance(v, bool) or int(v) != v or v < 0:
