@@ -421,7 +421,10 @@ def short_errors() -> bool:
     input, bad scenario) in this IPython session as their one located message, without
     a traceback: the message names the file, line, column, value and what was expected,
     and 13 lines of the workbench's own frames above it only hid it.  The cell still
-    fails (Run All stops there); any other error keeps its traceback.
+    fails (Run All stops there); any other error keeps its traceback.  What the failed
+    cell did not make stands as a :class:`~workbench.ui.unopened.NotOpened`: a later cell
+    that uses it says in one line that there is nothing to show until the input is fixed
+    (no ``NameError``, and no app left from an earlier run of other inputs).
 
     Returns
     -------
@@ -436,9 +439,12 @@ def short_errors() -> bool:
     if shell is None:
         return False
     from ..errors import WorkbenchError
+    from .unopened import NothingToShow, bind_unmade
 
     def one_line(self, etype, value, tb, tb_offset=None):
-        self._showtraceback(etype, value, [f"{etype.__name__}: {value}"])
+        text = str(value) if issubclass(etype, NothingToShow) else f"{etype.__name__}: {value}"
+        self._showtraceback(etype, value, [text])
+        bind_unmade(self.user_ns, tb)
 
     shell.set_custom_exc((WorkbenchError,), one_line)
     return True
