@@ -97,6 +97,14 @@ def lab(tmp_path_factory, token):
         nb.metadata.pop("widgets", None)
         nb.cells.insert(1, nbformat.v4.new_code_cell(text))
         nbformat.write(nb, root / f"{name}.ipynb")
+    # a user's typo in the first cell (defect: later cells gave NameError tracebacks)
+    nb = nbformat.read(NOTEBOOKS / "critical_loads.ipynb", as_version=4)
+    for c in nb.cells:
+        if c.cell_type == "code":
+            c.outputs, c.execution_count = [], None
+    nb.metadata.pop("widgets", None)
+    nb.cells.insert(1, nbformat.v4.new_code_cell(f'SCENARIO = r"{one.parent}/scenari.toml"'))
+    nbformat.write(nb, root / "critical_loads_typo.ipynb")
     port = _free_port()
     env = dict(os.environ, JUPYTER_CONFIG_DIR=str(cfg / "config"),
                JUPYTER_RUNTIME_DIR=str(cfg / "runtime"), IPYTHONDIR=str(cfg / "ipython"))
@@ -406,4 +414,32 @@ def test_grid_maps_in_a_real_browser(lab, token, page, tmp_path):
     if os.environ.get("WB_SCREENSHOTS"):
         Path(os.environ["WB_SCREENSHOTS"]).mkdir(parents=True, exist_ok=True)
         shutil.copy(shot, Path(os.environ["WB_SCREENSHOTS"]) / shot.name)
+    _close_sessions(lab, token)
+
+
+def test_a_typo_in_the_first_cell_is_one_message_and_plain_words_after(lab, token, page):
+    """The cells run one by one (Shift+Enter) after a typo in SCENARIO: the open cell
+    shows the one located message, the later cell says there is nothing to show until
+    the input is fixed; no traceback and no NameError anywhere in the page."""
+    page.goto(f"{lab}/lab/tree/critical_loads_typo.ipynb?token={token}&reset")
+    page.wait_for_selector(".jp-Notebook .jp-Cell")
+    page.wait_for_function(
+        "() => /\\| Idle/.test(document.querySelector('#jp-main-statusbar')?.innerText || '')")
+    page.locator(".jp-Notebook .jp-Cell .jp-InputPrompt").first.click()
+    n = page.locator(".jp-Notebook .jp-Cell").count()
+    for _ in range(n):              # each cell once its previous one is done
+        page.evaluate("window.jupyterapp.commands.execute('notebook:run-cell-and-select-next')")
+        page.wait_for_timeout(500)
+        page.wait_for_function(
+            "() => /\\| Idle/.test(document.querySelector('#jp-main-statusbar')?.innerText || '')")
+    # (running the last cell adds an empty one below it, as Shift+Enter does)
+    page.wait_for_selector(".jp-OutputArea-output:has-text('Nothing to show')")
+    errors = page.evaluate(
+        "() => [...document.querySelectorAll('.jp-OutputArea-output')]"
+        ".map(e => e.innerText.trim()).filter(t => t)")
+    text = "\n".join(errors)
+    assert "NameError" not in text and "Traceback" not in text, text
+    assert any(t.startswith("ScenarioError: SCENARIO = ") and "scenari.toml" in t
+               for t in errors), errors
+    assert errors[-1].startswith("Nothing to show: 'app' was not made"), errors
     _close_sessions(lab, token)

@@ -24,9 +24,14 @@ __all__ = ["scenario_base", "shown_path", "shown_text", "relative_from"]
 
 
 def scenario_base(scenario) -> Path | None:
-    """The folder of a scenario's file (None for a scenario built in memory)."""
+    """The folder of a scenario's file; for a scenario without a file (a run exported
+    from the apps) the folder its relative inputs start from (``Scenario.folder``, the
+    folder of the scenario the app opened); None for one built in memory."""
     path = getattr(scenario, "path", None)
-    return Path(path).parent if path is not None else None
+    if path is not None:
+        return Path(path).parent
+    folder = getattr(scenario, "folder", None)
+    return Path(folder) if folder is not None else None
 
 
 def shown_path(path, base) -> str:

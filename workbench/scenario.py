@@ -115,10 +115,16 @@ class Scenario:
     fixed_velocity: dict = field(default_factory=dict)
     #: Hints on doubtful override values (added to the ledger notes when read).
     notes: list = field(default_factory=list)
+    #: The folder relative input paths start from when there is no file (a run exported
+    #: from the apps: the folder of the scenario the app opened); None: the working
+    #: directory.
+    folder: Path | None = None
 
     @property
     def base(self) -> Path:
-        return self.path.parent if self.path is not None else Path.cwd()
+        if self.path is not None:
+            return self.path.parent
+        return Path(self.folder) if self.folder is not None else Path.cwd()
 
     def input_path(self, role: str) -> Path | None:
         """Absolute path of an input (``sites``, ``precipitation``, ``air``, ``met``)."""
@@ -279,8 +285,12 @@ def _particle_modes(given: dict, defaults: dict) -> dict:
     return out
 
 
-def validate(raw: dict, path=None, text: str = "", require_inputs: bool = True) -> Scenario:
+def validate(raw: dict, path=None, text: str = "", require_inputs: bool = True,
+             folder=None) -> Scenario:
     """Check a parsed scenario against the schema and fill in the defaults.
+
+    `folder` is where relative input paths start from when `path` is None (default: the
+    working directory); a scenario file's paths start from its own folder.
 
     Raises
     ------
@@ -373,7 +383,8 @@ def validate(raw: dict, path=None, text: str = "", require_inputs: bool = True) 
         raise ScenarioError("missing required key", file=path, line=_line_of(lines, "inputs"),
                             column="inputs.sites", expected="the path of the site catalogue")
     sc = Scenario(Path(path) if path is not None else None, data, raw, objects,
-                  {k: float(v) for k, v in fixed.items()})
+                  {k: float(v) for k, v in fixed.items()},
+                  folder=Path(folder) if folder is not None and path is None else None)
     for role, p in sc.input_paths().items():
         if not p.exists() and require_inputs:
             raise ScenarioError("input file does not exist", file=path,

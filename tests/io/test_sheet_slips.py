@@ -205,6 +205,21 @@ def test_a_totals_row_at_the_bottom_is_named(tmp_path, row, hint):
     assert f"line 6, column 'site': site not in the catalogue ({hint}): got " in msg, msg
 
 
+def test_a_units_row_under_the_header_is_named(tmp_path):
+    """A spreadsheet export with a row of units under the header (common practice of
+    sheets); the old message said only "an empty site cell"."""
+    head = AIR.splitlines()[1] if AIR.startswith("#") else AIR.splitlines()[0]
+    units = ",".join(next(iter(__import__("re").findall(r"\[([^\]]+)\]", c)), "")
+                     for c in head.split(","))
+    lines = AIR.splitlines()
+    k = lines.index(head)
+    (tmp_path / "a.csv").write_text("\n".join(lines[:k + 1] + [units] + lines[k + 1:]) + "\n")
+    msg = _error(read_air, tmp_path / "a.csv", _cat(tmp_path))
+    assert (f"line {k + 2}, column 'site': site not in the catalogue (an empty site cell: a row "
+            "of units under the header, as a spreadsheet exports them? the unit goes in the "
+            "header, 'SO2 [ug/m3]': remove the row): got ''") in msg, msg
+
+
 def test_a_totals_row_of_the_met_is_named(tmp_path, cat, met_reader):
     text = met_text()
     n = len(text.splitlines())

@@ -71,3 +71,21 @@ def test_demo_grid_shown_instead_of_a_scenario_without_grid_says_so(out, monkeyp
     assert "invented demo grid" in title and "has no [grid] section" in title
     plain = grid_map_spec(open_maps(None), "dry_N", 0)["layout"]["title"]["text"]
     assert "demo grid" not in plain
+
+
+@pytest.mark.parametrize("period", [5, "7", "2021-09", "july", -3, 1.5j])
+def test_a_period_the_grid_has_not_is_one_located_line(out, period):
+    """The notebook's PERIOD out of range or mistyped: one InputError naming PERIOD and
+    the periods there are (before: IndexError or "'2021-09' is not in list" tracebacks)."""
+    from workbench.errors import InputError
+    with pytest.raises(InputError) as exc:
+        grid_map_spec(out, "dry_N", period)
+    assert str(exc.value) == (
+        f"column 'PERIOD': no such reporting period: got '{period}', expected a position "
+        "0 to 1 or a label of the 2 period(s): 0 ('2021-07'), 1 ('2021-08')")
+
+
+@pytest.mark.parametrize("period, k", [(1, 1), ("1", 1), ("2021-08", 1), (-1, 1), (-2, 0)])
+def test_a_period_by_position_or_label(out, period, k):
+    assert grid_map_spec(out, "dry_N", period)["layout"]["title"]["text"].endswith(
+        ("2021-07", "2021-08")[k])

@@ -25,3 +25,15 @@ def test_fit_descriptions_widens_only_long_labels():
     fit_descriptions(box)
     assert long.style.description_width == "initial" and short.style.description_width == ""
     assert cut_descriptions(box) == []
+
+
+def test_every_option_of_an_assumption_shows_whole_in_its_closed_box():
+    """Seen in the browser: the seasonal category showed "automatic (surface state, n"
+    and the roughness check box "roughness length z0 of the sit..." (its unit cut)."""
+    from workbench.ui.assumptions import ASSUMPTIONS
+    from workbench.ui.controls import WRAP_LABELS_CSS, select_room
+    room = select_room()
+    long = [(k, str(lab)) for k, a in ASSUMPTIONS.items() if a.kind == "choice"
+            for lab, _ in a.choices if len(str(lab)) > room]
+    assert not long, (room, long)
+    assert ".wb-wrap-labels .widget-label-basic" in WRAP_LABELS_CSS   # check-box labels wrap

@@ -35,7 +35,10 @@ def test_thirty_sites_each_look_different_and_the_legend_lists_sites_once():
 
 def test_few_sites_keep_their_open_marker_entries():
     fig = figures.network_totals(_table(3))
-    assert sum(t.showlegend is not False for t in fig.data) == 6
+    # s01 has no partial total in _table(3): no open-marker entry of its own
+    assert [t.name for t in fig.data if t.showlegend is not False] == [
+        "s00", "s00 (partial or flagged: not ranked)", "s01", "s02",
+        "s02 (partial or flagged: not ranked)"]
     assert fig.layout.height == figures.HEIGHT
 
 
@@ -81,3 +84,13 @@ def test_a_tall_figure_is_exported_at_its_own_height(monkeypatch, tmp_path):
     export.export_figure(fig, tmp_path / "r.png")
     export.export_figure(figures.network_totals(_table(3)), tmp_path / "t.png")
     assert sizes == [(export.WIDTH, fig.layout.height), (export.WIDTH, export.HEIGHT)]
+
+
+def test_a_site_without_open_markers_has_no_open_marker_entry():
+    """Seen in the browser: 'ridge (partial or flagged: not ranked)' in the legend of a
+    network where only mere's N total was partial."""
+    t = _table(2, years=(2021,))
+    t["rankable"] = ~((t["site"] == "s01") & (t["element"] == "N"))
+    fig = figures.network_totals(t)
+    shown = [tr.name for tr in fig.data if tr.showlegend is not False]
+    assert shown == ["s00", "s01", "s01 (partial or flagged: not ranked)"]

@@ -16,6 +16,13 @@ _SUMMARY = re.compile(r"(?:grand )?(?:totals?|sums?|mean|average|median|min(?:im
                       r"max(?:imum)?|count)\b", re.IGNORECASE)
 
 
+def _units_row(tab: RawTable, words) -> bool:
+    """Whether a row's non-empty cells are the units of the header (a units row)."""
+    units = {h.unit.strip().lower() for h in tab.headers.values() if h.unit}
+    cells = [w.strip("[]() ") for w in words if w]
+    return bool(cells) and bool(units) and all(c in units for c in cells)
+
+
 def check_sites(tab: RawTable, catalogue) -> np.ndarray:
     """The ``site`` column as an array, every value checked against the catalogue."""
     sites = tab.text("site")
@@ -27,9 +34,13 @@ def check_sites(tab: RawTable, catalogue) -> np.ndarray:
             hint = " (a repeated header line? keep one header at the top)"
         elif sites[i] == "":
             words = [str(c).strip().lower() for c in tab.frame.iloc[i].tolist()]
-            hint = (" (an empty site cell: a totals or summary row from a spreadsheet? remove it)"
-                    if any(_SUMMARY.match(w) for w in words)
-                    else " (an empty site cell)")
+            if any(_SUMMARY.match(w) for w in words):
+                hint = " (an empty site cell: a totals or summary row from a spreadsheet? remove it)"
+            elif _units_row(tab, words):
+                hint = (" (an empty site cell: a row of units under the header, as a spreadsheet "
+                        "exports them? the unit goes in the header, 'SO2 [ug/m3]': remove the row)")
+            else:
+                hint = " (an empty site cell)"
         elif sites[i].strip().lower() in {c.lower() for c in catalogue.ids}:
             same = next(c for c in catalogue.ids if c.lower() == sites[i].strip().lower())
             hint = (f" (differs from the catalogue's {same!r} only in case or blanks: site "

@@ -29,11 +29,13 @@ FIXED_SPECIES = ("SO2", "HNO3", "NH3", "NO2", "pSO4", "pNO3", "pNH4")
 PARTICLE_SPECIES = ("pSO4", "pNO3", "pNH4")
 #: Wesely (1989, Atmos. Environ. 23, 1293-1304) seasonal categories, as in
 #: :mod:`workbench.drydep.seasons`.
-SEASONAL_CATEGORIES = (("automatic (surface state, month, latitude)", "automatic"),
-                       ("1 midsummer, lush vegetation", 1),
-                       ("2 autumn, unharvested cropland", 2),
-                       ("3 late autumn after frost, no snow", 3),
-                       ("4 winter, snow and subfreezing", 4),
+#: Short enough to show whole in the control's closed box (the full names in
+#: docs/methods_dry.md; "automatic (surface state, month, latitude)" showed cut).
+SEASONAL_CATEGORIES = (("automatic", "automatic"),
+                       ("1 midsummer, lush", 1),
+                       ("2 autumn, unharvested", 2),
+                       ("3 late autumn, no snow", 3),
+                       ("4 winter, snow, frozen", 4),
                        ("5 transitional spring", 5))
 _FLAG_EXCLUDE = (("flag and keep", "flag"), ("exclude", "exclude"))
 _LIMIT = (("half the limit", "half"), ("the limit", "limit"), ("zero", "zero"))

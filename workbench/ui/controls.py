@@ -27,6 +27,9 @@ TABLE_HEIGHT = "320px"
 #: years slider gets room for "2023 – 2023" (its last digit was cut in a full row).
 WRAP_LABELS_CSS = ("<style>.wb-wrap-labels .widget-label {white-space: normal !important; "
                    "line-height: 1.15; height: auto !important;} "
+                   ".wb-wrap-labels .widget-label-basic, .wb-wrap-labels .widget-label-basic "
+                   "span {white-space: normal !important; overflow: visible !important; "
+                   "line-height: 1.15; height: auto !important;} "
                    ".wb-wrap-labels .widget-inline-hbox {height: auto !important; "
                    "min-height: var(--jp-widgets-inline-height); align-items: center;} "
                    ".wb-years .widget-readout {min-width: 7.5em; overflow: visible;}</style>")
@@ -80,6 +83,19 @@ class OptionalFloat(widgets.HBox):
             self._num.disabled = v is None
         finally:
             self._syncing = False
+
+
+#: Width of a character of a drop-down's text [px], and of its arrow and padding [px]
+#: (measured in chromium at JupyterLab's 13 px font: "automatic (surface state, month,
+#: latitude)", 42 characters, took 236 px and the box 24 px more).
+SELECT_CHAR_PX, SELECT_FRAME_PX = 5.6, 24
+
+
+def select_room(control_width=CONTROL_WIDTH) -> int:
+    """Characters a control's closed drop-down shows whole beside a
+    :data:`DESCRIPTION_WIDTH` description."""
+    free = int(control_width[:-2]) - int(DESCRIPTION_WIDTH[:-2]) - 10 - SELECT_FRAME_PX
+    return int(free // SELECT_CHAR_PX)
 
 
 def make_control(a: Assumption, value):
@@ -421,7 +437,10 @@ def short_errors() -> bool:
     input, bad scenario) in this IPython session as their one located message, without
     a traceback: the message names the file, line, column, value and what was expected,
     and 13 lines of the workbench's own frames above it only hid it.  The cell still
-    fails (Run All stops there); any other error keeps its traceback.
+    fails (Run All stops there); any other error keeps its traceback.  What the failed
+    cell did not make stands as a :class:`~workbench.ui.unopened.NotOpened`: a later cell
+    that uses it says in one line that there is nothing to show until the input is fixed
+    (no ``NameError``, and no app left from an earlier run of other inputs).
 
     Returns
     -------
@@ -436,9 +455,12 @@ def short_errors() -> bool:
     if shell is None:
         return False
     from ..errors import WorkbenchError
+    from .unopened import NothingToShow, bind_unmade
 
     def one_line(self, etype, value, tb, tb_offset=None):
-        self._showtraceback(etype, value, [f"{etype.__name__}: {value}"])
+        text = str(value) if issubclass(etype, NothingToShow) else f"{etype.__name__}: {value}"
+        self._showtraceback(etype, value, [text])
+        bind_unmade(self.user_ns, tb)
 
     shell.set_custom_exc((WorkbenchError,), one_line)
     return True

@@ -427,6 +427,10 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
     # two sites look alike; the open markers share one note instead of a legend entry
     # each (30 sites gave 60 entries behind a scroll bar)
     many = len(sites) > len(SITE_CYCLE)
+    # a site with no open marker in either panel gets no "(partial ...)" legend entry:
+    # the entry read as if the site had such totals
+    unranked = set(table.loc[~table["rankable"].astype(bool) & np.isfinite(
+        table["value"].astype(float)), "site"])
     for col, el in enumerate(ELEMENTS, start=1):
         for i, site in enumerate(sites):
             g = table[(table["site"] == site) & (table["element"] == el)]
@@ -440,7 +444,8 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
                     x=g["period"], y=[x if np.isfinite(x) else None for x in v],
                     mode="lines+markers" if ok else "markers",
                     name=f"{site}" if ok else f"{site} (partial or flagged: not ranked)",
-                    legendgroup=site, showlegend=col == 1 and (ok or not many),
+                    legendgroup=site,
+                    showlegend=col == 1 and (ok or (not many and site in unranked)),
                     line=dict(color=colour, dash=dash), connectgaps=False,
                     marker=dict(color=colour, size=9, symbol="circle" if ok else "circle-open"),
                     customdata=why,

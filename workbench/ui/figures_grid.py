@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..errors import InputError
 from .figures import from_spec
 
 #: Colour scales: sequential, colour-blind safe (plotly's built-in names).
@@ -38,6 +39,37 @@ def _aux(ds, standard_name, shape):
     return np.full(shape, np.nan)
 
 
+def period_position(ds, period) -> int:
+    """Position of reporting period `period` (a position, negative from the end, or a
+    label) in ``grid.nc`` `ds`.
+
+    Raises
+    ------
+    InputError
+        Naming the notebook's ``PERIOD`` and the periods there are (an ``IndexError``
+        or ``ValueError`` traceback before).
+    """
+    labels = [str(v) for v in ds["period"].values]
+    n = len(labels)
+    listed = ", ".join(f"{i} ('{lab}')" for i, lab in enumerate(labels[:12]))
+    listed += ", ..." if n > 12 else ""
+    expected = f"a position 0 to {n - 1} or a label of the {n} period(s): {listed}"
+    if isinstance(period, str) and not period.strip().lstrip("-").isdigit():
+        if period.strip() in labels:
+            return labels.index(period.strip())
+        raise InputError("no such reporting period", column="PERIOD", value=period,
+                         expected=expected)
+    try:
+        k = int(period)
+    except (TypeError, ValueError):
+        raise InputError("no such reporting period", column="PERIOD", value=period,
+                         expected=expected) from None
+    if not -n <= k < n:
+        raise InputError("no such reporting period", column="PERIOD", value=period,
+                         expected=expected)
+    return k % n
+
+
 def grid_map_spec(ds, variable: str = "dry_N", period: int | str = 0) -> dict:
     """Spec of a map of one output variable for one reporting period.
 
@@ -57,10 +89,9 @@ def grid_map_spec(ds, variable: str = "dry_N", period: int | str = 0) -> dict:
         ``{"data": [heatmap], "layout": {...}}``.
     """
     if variable not in ds or ds[variable].ndim != 3:   # land_use: a map without periods
-        raise ValueError(f"{variable!r} is not in the grid output; choose one of "
+        raise InputError(f"{variable!r} is not in the grid output; choose one of "
                          + ", ".join(v for v in ds.data_vars if ds[v].ndim == 3))
-    labels = [str(v) for v in ds["period"].values]
-    k = labels.index(period) if isinstance(period, str) else int(period)
+    k = period_position(ds, period)
     kind = variable.split("_")[0]
     factor, unit = DISPLAY.get(kind, (1.0, ds[variable].attrs.get("units", "")))
     if kind == "dry" and variable[4:] in ("N", "S"):     # say the element: kg N/ha
@@ -85,7 +116,7 @@ def grid_map_spec(ds, variable: str = "dry_N", period: int | str = 0) -> dict:
              "colorbar": {"title": {"text": unit}}, "customdata": custom,
              "hovertemplate": "lat %{customdata[0]:.3f}, lon %{customdata[1]:.3f}<br>"
              "%{customdata[2]}<br>" + f"{variable}: " + "%{z:.3g} " + unit + "<extra></extra>"}
-    title = f"{what}, {labels[k]}"
+    title = f"{what}, {ds['period'].values[k]}"
     if ds.attrs.get(SHOWN_INSTEAD):          # the user's scenario had no grid: say so
         title += f"<br><sup>{ds.attrs[SHOWN_INSTEAD]}</sup>"
     layout = {"title": {"text": title},
@@ -119,6 +150,11 @@ def open_maps(scenario=None):
     """
     from ..grid_demo import open_run
     from ..scenario import load_scenario
+    from .controls import short_errors
+    from .notebook_paths import scenario_path
+    short_errors()                         # a bad path or input: its one located line
+    if scenario is not None:
+        scenario = scenario_path(scenario)
     instead = ""
     if scenario is not None and load_scenario(scenario).given.get("grid") is None:
         instead = (f"invented demo grid: {scenario} has no [grid] section")

@@ -369,8 +369,11 @@ class Session:
             name -> Path of each file written.
         """
         from ..writers import write_run
-        raw, _ = self.scenario_document(settings, first_year, last_year, None)
-        scenario = validate(raw, None)
+        # inputs named relative to the folder of the scenario the app opened, as
+        # ``workbench run`` of that scenario names them (a project folder moves whole)
+        folder = self.scenario.base
+        raw, _ = self.scenario_document(settings, first_year, last_year, folder)
+        scenario = validate(raw, None, folder=folder)
         _say(progress, "computing", 0.2)
         res = self.run(settings, site, first_year, last_year, raw["period"]["resolution"])
         _say(progress, "writing", 0.6)

@@ -466,9 +466,12 @@ WHOLE_FROM = 1000.0
 
 
 def _fmt(v: float, decimals=DECIMALS) -> str:
+    """`v` as the apps write it; a value that rounds to zero is "0.0", never "-0.0"
+    (a sum of components cancelling to -1e-17 read as a negative deposition)."""
     if not np.isfinite(v):
         return "n/a"
-    return f"{v:,.0f}" if abs(v) >= WHOLE_FROM else f"{v:.{decimals}f}"
+    text = f"{v:,.0f}" if abs(v) >= WHOLE_FROM else f"{v:.{decimals}f}"
+    return text[1:] if text.startswith("-") and not text.strip("-0.,") else text
 
 
 def _decimals(old: float, new: float) -> int:

@@ -1,0 +1,70 @@
+"""After a bad input, a notebook's later cells say there is nothing to show until the
+input is fixed, in one line: no NameError traceback, no app left from an earlier run."""
+import pytest
+
+from workbench.ui.unopened import NothingToShow, NotOpened, unmade_names
+
+
+def test_unmade_names_from_the_failing_statement_on():
+    cell = ("from workbench.ui.apps import SiteExplorer\n"
+            "x = 1\n"
+            "app = SiteExplorer.from_scenario(\n    SCENARIO)\n"
+            "app\n"
+            "a, (b, c) = app.pair()\n"
+            "n: int = 3\n")
+    assert unmade_names(cell, 4) == ["app", "a", "b", "c", "n"]    # inside the call's lines
+    assert unmade_names(cell, 2) == ["x", "app", "a", "b", "c", "n"]
+    assert unmade_names("def f(:\n", 1) == []
+
+
+def test_not_opened_says_nothing_to_show_on_every_use():
+    app = NotOpened("app")
+    for use in (lambda: app.statement, lambda: app["x"], lambda: app(), lambda: list(app),
+                lambda: app.result.table):
+        with pytest.raises(NothingToShow, match="Nothing to show: 'app' was not made"):
+            use()
+    assert "Fix the input in the first cell" in repr(app)
+    assert not hasattr(app, "_repr_html_")          # IPython shows the sentence
+
+
+@pytest.fixture
+def shell():
+    from IPython.core.interactiveshell import InteractiveShell
+
+    from workbench.ui.controls import short_errors
+    sh = InteractiveShell.instance()
+    assert short_errors()
+    yield sh
+    sh.set_custom_exc((), None)
+    InteractiveShell.clear_instance()
+
+
+BAD_OPEN = ("from workbench.errors import InputError\n"
+            "def open_app():\n"
+            "    raise InputError('not a number', file='air.csv', line=5, column='SO2',\n"
+            "                     value='-999x', expected='a number')\n"
+            "app = open_app()\n"
+            "app\n")
+
+
+def test_later_cells_after_a_bad_input_say_nothing_to_show(shell, capsys):
+    """The notebooks' later cells (`print(app.statement)`, `app.result.table...`,
+    `SobolExplorer(sens.session)`) after the open cell failed; before, a NameError."""
+    shell.run_cell("app = 'the app of an earlier run, on other inputs'")
+    res = shell.run_cell(BAD_OPEN)
+    out = capsys.readouterr().out
+    assert "InputError: air.csv, line 5, column 'SO2': not a number" in out
+    assert "Traceback" not in out
+    for later in ("print(app.statement)", "app.result.table.query('x == 1')",
+                  "sobol = dict(session=app.session)"):
+        res = shell.run_cell(later)
+        out = capsys.readouterr().out
+        assert isinstance(res.error_in_exec, NothingToShow), later
+        assert out.strip().splitlines() == [
+            "Nothing to show: 'app' was not made, because the input did not open (the "
+            "message above says what to mend). Fix the input in the first cell, then run "
+            "the cells again from the top."], out
+    res = shell.run_cell("sobol")                 # made by no cell either: the same line
+    assert "Nothing to show: 'sobol' was not made" in capsys.readouterr().out
+    res = shell.run_cell("undefined_name")        # a user's own slip: Python's message
+    assert isinstance(res.error_in_exec, NameError)
