@@ -42,7 +42,7 @@ def test_span_row_says_which_years_carry_which_note():
     assert span.loc["NO3", "status"] == "flagged"
     assert span.loc["NO3", "note"] == (f"2017 2019: {GAP_1}; 2020: {KEPT}; 2020: {GAP_15}")
     assert span.loc["NO2", "note"] == f"every year used: {NOT_MEASURED}"
-    assert span.loc["all", "note"] == ""           # the sums carry no note in their years
+    assert span.loc["all", "note"] == ""           # these rows give their sums no note of a year
     assert span.loc["NO3", "years_used"] == "2017 2018 2019 2020 2021"
 
 

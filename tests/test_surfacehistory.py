@@ -371,5 +371,5 @@ def test_check_refuses_particles_of_an_earlier_bulk_collector_without_a_correcti
     for f in ("precipitation.csv", "air.csv", "met.csv.gz"):
         sc = sc.replace(f'"{f}"', f'"{(record / f).as_posix()}"')
     (d / "scenario.toml").write_text(sc)
-    with pytest.raises(PreflightError, match="site 'haugh' has a bulk collector"):
+    with pytest.raises(PreflightError, match="site 'haugh' had a bulk collector"):
         prepare(d / "scenario.toml")

@@ -19,7 +19,7 @@ import pandas as pd
 import xarray as xr
 
 from .pipeline import Result
-from .stages import fill_value
+from .pairfill import fill_value
 from .tables import budget_table, span_table
 
 
@@ -27,7 +27,7 @@ def _on_receptors(ds, receptors):
     """`ds` on the network's receptor axis (a block has its own sites' receptors only).
 
     The variables on ``receptor`` are placed into arrays of the network's receptors
-    (filled by :func:`workbench.stages.fill_value`, dtypes kept) with numpy: ``Dataset.reindex`` of
+    (filled by :func:`workbench.pairfill.fill_value`, dtypes kept) with numpy: ``Dataset.reindex`` of
     every block cost about a second per 100 site-years."""
     if ds is None or "receptor" not in ds.dims:
         return ds

@@ -250,8 +250,11 @@ def _bulk_refusal(study, scenario, catalogue):
         measured = set(site[np.isfinite(inp.air[sp].values)])
         bad = [s for s in bulk if s in measured]
         if bad:
+            now = {s.id: s.collector for s in catalogue}
+            has = ("has a bulk collector" if now.get(bad[0]) == "bulk" else
+                   "had a bulk collector (a [[site.change]] of its collector in sites.toml)")
             raise PreflightError(
-                f"site {bad[0]!r} has a bulk collector: its 'wet' deposition already "
+                f"site {bad[0]!r} {has}: its 'wet' deposition already "
                 f"holds some dry deposition, so particle dry deposition ({sp}) is not "
                 "added; name a correction in [budget] bulk_correction "
                 "('exclude_particles' or 'scale_wet', see docs/budget.md)")

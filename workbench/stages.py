@@ -21,6 +21,7 @@ from .drycomponents import NH3_EXCHANGE, fill_arrays, prepare_velocities
 from .dryflux import fill_diurnal, hour_slots
 from .graph import declare, stage, variables_digest
 from .wet.options import WetOptions
+from .pairfill import fill_value
 
 #: Wet options that act on periods only (completeness, fills, sea salt): the wet
 #: chain's own reads.  The screening reads every other wet option.
@@ -193,14 +194,6 @@ def _site_attrs(attrs, part_sites, sites) -> dict:
         else:
             out[key] = first
     return out
-
-
-def fill_value(dtype):
-    """The value of a (site, receptor) pair that is not computed (a pair no site asks
-    for, or a receptor a block does not have): NaN, False, 0 or NaT by dtype."""
-    kind = np.dtype(dtype).kind
-    return {"f": np.nan, "c": np.nan, "b": False, "i": 0, "u": 0,
-            "M": np.datetime64("NaT"), "m": np.timedelta64("NaT")}.get(kind, "")
 
 
 #: The note of a velocities Dataset that holds the wanted pairs only.

@@ -148,7 +148,7 @@ def in_force(vel: xr.Dataset, history, receptors, real_active=None) -> xr.Datase
         time) [flag] the class of each hour (a declared receptor: its own); the counts
         of :data:`COUNT_OF` counted again over those hours.
     """
-    from .stages import fill_value
+    from .pairfill import fill_value
     recs = [str(r) for r in vel["receptor"].values]
     sites = [str(s) for s in vel["site"].values]
     out_r = [str(r) for r in receptors]
