@@ -466,10 +466,10 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
         for t, name in enumerate(names):
             path = name.split("_")[1]
             if path in ("wet", "total"):
-                t_note[..., t] = _join_some(t_note[..., t], coll_words[:, None, :]
+                t_note[..., t] = join_notes(t_note[..., t], coll_words[:, None, :]
                                             * np.ones((1, n_r, 1), object))
             if path in ("dry", "total"):
-                t_note[..., t] = _join_some(t_note[..., t], lu)
+                t_note[..., t] = join_notes(t_note[..., t], lu)
         data["total_note"] = xr.Variable(dims[:3] + ("total",), t_note.astype(object))
     coords = {"site": sites, "receptor": list(receptors), "period": labels,
               "component": [f"{e}/{p}/{s}" for e, p, s in comps],
@@ -499,12 +499,6 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                      "notes": json.dumps(notes), "nh3_figure": figure,
                      "omissions": json.dumps([list(o) for o in OMISSIONS])})
     return ds
-
-
-def _join_some(acc, text):
-    """:func:`join_notes` where `text` (an array) is not empty."""
-    text = np.asarray(text, dtype=object)
-    return np.where(text == "", acc, join_notes(acc, text))
 
 
 def _same_axis(ds: xr.Dataset, dim: str, values) -> bool:

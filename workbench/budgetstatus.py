@@ -70,10 +70,12 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
 
 
 def join_notes(acc, text):
-    """Append `text` to the '; '-joined notes in `acc` (ndarray of str or str)."""
+    """Append `text` to the '; '-joined notes in `acc` (ndarray of str or str); an empty
+    `text` (scalar or element) leaves `acc` as it is."""
     acc = np.asarray(acc, dtype=object)
     acc = np.where(pd.isna(acc), "", acc)
-    return np.where(acc == "", text, acc + "; " + text).astype(object)
+    text = np.asarray(text, dtype=object)
+    return np.where(text == "", acc, np.where(acc == "", text, acc + "; " + text)).astype(object)
 
 
 #: The shortest stretch of a period without samples that a budget row notes [h]: a

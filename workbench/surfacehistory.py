@@ -223,25 +223,37 @@ def period_notes(catalogue, sites, receptors, periods) -> np.ndarray:
     periods are not all under its land use: ``surface conifer_forest until 2014-04-01,
     grass after`` (a period that straddles a change), ``surface conifer_forest``
     (a period wholly under an earlier class); "" elsewhere."""
-    n_p = len(periods)
-    out = np.full((len(sites), len(receptors), n_p), "", dtype=object)
-    p0 = periods["start"].to_numpy().astype("datetime64[ns]")
-    p1 = periods["end"].to_numpy().astype("datetime64[ns]")
+    out = np.full((len(sites), len(receptors), len(periods)), "", dtype=object)
+    p0, p1 = _period_bounds(periods)
     for site, own, changes in land_use_history(catalogue):
         if site not in sites or own not in receptors:
             continue
         i, j = list(sites).index(site), list(receptors).index(own)
-        instants, classes = _segments(changes)
-        k0 = np.searchsorted(instants, p0, side="right")     # class at the period's start
-        k1 = np.searchsorted(instants, p1, side="left")      # ... at its end
-        for k in range(n_p):
-            a, b = int(k0[k]), int(k1[k])
-            if a == b:
-                if classes[a] != own:
-                    out[i, j, k] = f"surface {classes[a]} (land_use before {changes[a][0]})"
-            else:
-                out[i, j, k] = "surface " + describe(changes[a:b])
+        out[i, j] = _period_words(changes, p0, p1, own, "surface", "land_use before")
     return out
+
+
+def _period_bounds(periods):
+    """Starts and ends of the reporting periods [datetime64 ns]."""
+    return (periods["start"].to_numpy().astype("datetime64[ns]"),
+            periods["end"].to_numpy().astype("datetime64[ns]"))
+
+
+def _period_words(changes, p0, p1, now, what, before) -> np.ndarray:
+    """Per period: ``<what> <describe(changes)>`` for a period that straddles changes,
+    ``<what> <class> (<before> <date>)`` for one wholly under a class other than `now`,
+    "" elsewhere (a loop over the periods, a few tens)."""
+    instants, classes = _segments(changes)
+    k0 = np.searchsorted(instants, p0, side="right")     # class at the period's start
+    k1 = np.searchsorted(instants, p1, side="left")      # ... at its end
+    words = np.full(len(p0), "", dtype=object)
+    for k in range(len(p0)):
+        a, b = int(k0[k]), int(k1[k])
+        if a != b:
+            words[k] = f"{what} " + describe(changes[a:b])
+        elif classes[a] != now:
+            words[k] = f"{what} {classes[a]} ({before} {changes[a][0]})"
+    return words
 
 
 def collector_shares(catalogue, sites, periods) -> tuple:
@@ -252,8 +264,7 @@ def collector_shares(catalogue, sites, periods) -> tuple:
     share = np.array([[1.0 if catalogue[s].collector == "bulk" else 0.0] * n_p
                       for s in sites]).reshape(len(sites), n_p)
     words = np.full((len(sites), n_p), "", dtype=object)
-    p0 = periods["start"].to_numpy().astype("datetime64[ns]")
-    p1 = periods["end"].to_numpy().astype("datetime64[ns]")
+    p0, p1 = _period_bounds(periods)
     for site, now, changes in collector_history(catalogue):
         if site not in sites:
             continue
@@ -268,12 +279,5 @@ def collector_shares(catalogue, sites, periods) -> tuple:
             if c == "bulk":
                 bulk += np.clip(over, 0, None)
         share[i] = np.where(length > 0, bulk / np.where(length > 0, length, 1), share[i])
-        k0 = np.searchsorted(instants, p0, side="right")
-        k1 = np.searchsorted(instants, p1, side="left")
-        for k in range(n_p):
-            a, b = int(k0[k]), int(k1[k])
-            if a != b:
-                words[i, k] = "collector " + describe(changes[a:b])
-            elif classes[a] != now:
-                words[i, k] = f"collector {classes[a]} (before {changes[a][0]})"
+        words[i] = _period_words(changes, p0, p1, now, "collector", "before")
     return share, words

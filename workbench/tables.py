@@ -8,6 +8,7 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
+from .budgetstatus import join_notes
 from .units import deposition_in, element_deposition_in
 from .wet.qa import UMOL_L_PER_MOL_M3
 
@@ -168,8 +169,7 @@ def _sum_notes(frame: pd.DataFrame) -> pd.DataFrame:
     sums = frame.loc[frame["species"] == "all", by]
     got = sums.join(gathered, on=by)["_gathered"].fillna("").to_numpy(dtype=object)
     own = frame.loc[frame["species"] == "all", "note"].to_numpy(dtype=object)
-    joined = np.where((own != "") & (got != ""), own + "; " + got,
-                      np.where(own != "", own, got))
+    joined = join_notes(own, got)
     note = frame["note"].to_numpy(dtype=object).copy()
     note[(frame["species"] == "all").to_numpy()] = joined
     return frame.assign(note=note)
@@ -309,9 +309,7 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
         pd.MultiIndex.from_frame(agg[keys])).fillna("").to_numpy(dtype=object)
     fewer_note = (agg["note"].fillna("").to_numpy(dtype=object) if "note" in agg
                   else np.full(len(agg), "", dtype=object))
-    both = (fewer_note != "") & (yearly != "")
-    agg["note"] = np.where(both, fewer_note + "; " + yearly,
-                           np.where(fewer_note != "", fewer_note, yearly)).astype(object)
+    agg["note"] = join_notes(fewer_note, yearly)
     cols = list(BUDGET_COLUMNS) + ["period", "years_used", "years_excluded",
                                    "missing_components", "flagged_components", "note"]
     return agg[cols]
