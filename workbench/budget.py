@@ -179,16 +179,30 @@ def annual_factor(periods: pd.DataFrame) -> np.ndarray:
     hours; 1 for any period of exactly one year (a calendar or hydrological year, a
     custom range from a date to the same date a year later): a whole year is its own
     yearly rate, whether it holds 29 February or not (a hydrological year's label names
-    the year it ends in, which need not be the year of that February).
+    the year it ends in, which need not be the year of that February).  A custom range
+    of exactly k whole years (from a date to the same date k years later) has 1/k: its
+    deposition per year, whatever leap days it holds (the hours of its first year over
+    its hours gave 8760 / 17544 = 0.4993 for 2023-2024; 2026-12 audit).
+
+    >>> import pandas as pd
+    >>> p = pd.DataFrame({"start": pd.to_datetime(["2023-01-01", "2024-02-01"]),
+    ...                   "end": pd.to_datetime(["2025-01-01", "2024-03-01"]),
+    ...                   "hours": [17544.0, 696.0], "year": [-1, -1]})
+    >>> [round(float(f), 4) for f in annual_factor(p)]
+    [0.5, 12.6207]
     """
     year = np.where(periods["year"].to_numpy() > 0, periods["year"].to_numpy(),
                     pd.DatetimeIndex(periods["start"]).year.to_numpy())
     leap = ((year % 4 == 0) & (year % 100 != 0)) | (year % 400 == 0)
     factor = np.where(leap, 8784.0, 8760.0) / periods["hours"].to_numpy(dtype=float)
     start = pd.DatetimeIndex(periods["start"])
-    whole_year = ((start + pd.DateOffset(years=1)).to_numpy("datetime64[ns]")
-                  == periods["end"].to_numpy().astype("datetime64[ns]"))   # not clipped
-    return np.where(whole_year, 1.0, factor)
+    end = periods["end"].to_numpy().astype("datetime64[ns]")
+    n_years = np.maximum(pd.DatetimeIndex(end).year.to_numpy() - start.year.to_numpy(), 1)
+    for k in np.unique(n_years):           # over the distinct numbers of years (few)
+        whole = ((n_years == k) & ((start + pd.DateOffset(years=int(k)))
+                                   .to_numpy("datetime64[ns]") == end))   # not clipped
+        factor = np.where(whole, 1.0 / k, factor)
+    return factor
 
 
 # ------------------------------------------------------------------------------ assembly

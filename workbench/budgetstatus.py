@@ -203,6 +203,12 @@ def wet_mean_status(w, name, w_status, fallback=False):
         # equal to the minimum (to rounding) passes, as the wet chain's own criteria
         low_i = (np.isfinite(frac) & falls_short(frac, need) & (frac > 0)
                  & (w_status != "missing"))
+        if "ion_filled" in v:
+            # a PWM filled with the multi-year seasonal PWM (period_fill) does not rest on
+            # the period's own samples: their share does not judge it (the period is
+            # 'filled', docs/methods_wet.md section 7)
+            got = w["ion_filled"].sel(ion=i).transpose(*dims).values
+            low_i &= ~np.where(pd.isna(got), False, got).astype(bool)
         pct = np.round(100 * np.nan_to_num(frac), 1).astype(str)
         notes.append((low_i, np.char.add(np.char.add(f"{i} valid for ", pct),
                                          " % of the precipitation only")))

@@ -207,8 +207,9 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         the precipitation carried by kept flagged samples);
         ``nss<X>_total_used`` and ``nss<X>_clipped`` (bool: no tracer, so the total
         ion stands in; negative nss clipped at 0);
-        ``ion_valid_precip_fraction``, ``ion_n_valid``, ``ion_n_censored``
-        (site, period, ion).  The attributes hold the provenance (JSON texts).
+        ``ion_valid_precip_fraction``, ``ion_n_valid``, ``ion_n_censored``,
+        ``ion_filled`` (site, period, ion; the ion's PWM is the seasonal fill).
+        The attributes hold the provenance (JSON texts).
 
     Notes
     -----
@@ -315,6 +316,7 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         failed |= mask
     failed &= ~missing
     filled = np.zeros(shape, bool)
+    ion_fill = {sp: np.zeros(shape, bool) for sp in species}     # the ion's PWM was filled
     fill_n = 0
     if opt.period_fill == "seasonal" and failed.any():
         by_season, whole = _climatology(screened, opt, met, site_idx, n_site, species,
@@ -328,6 +330,7 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
             # record fails keeps its own PWM and stays flagged (section 7)
             take = failed & wet & np.isfinite(clim) & ~gauge_short
             filled |= take
+            ion_fill[sp] = take
             pwm[sp] = np.where(take, clim, pwm[sp])
         fill_n = int(filled.sum())
     # kept samples that failed a check (flagged, not excluded): the period says so
@@ -447,6 +450,9 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     out["ion_valid_precip_fraction"] = (("site", "period", "ion"), frac_ion,
                                         {"units": "1", "long_name": "fraction of precipitation "
                                          "with a valid value of the ion"})
+    out["ion_filled"] = (("site", "period", "ion"), np.stack([ion_fill[sp] for sp in ions], -1),
+                         {"long_name": "the ion's PWM is the multi-year seasonal PWM "
+                          "(period_fill), not the period's own samples"})
     out["ion_n_valid"] = (("site", "period", "ion"), np.stack(nval_ion, -1),
                           {"units": "1", "long_name": "valid samples with a value of the ion"})
     out["ion_n_censored"] = (("site", "period", "ion"), np.stack(ncen_ion, -1),

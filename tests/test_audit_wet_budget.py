@@ -1,0 +1,122 @@
+"""Independent audit of the wet chain, the budget's wet status and its yearly rates
+(2026-12, branch pf-audit).
+
+Every expected value is worked out here from a named outside source, never by calling
+the code under test for it:
+
+* the seasonal fill of a failed period (docs/methods_wet.md section 7) and the
+  budget's status table (docs/budget.md, "Status": ``filled`` = passes, with filled
+  values, the PWM fill among them);
+* the Gregorian calendar (2024 is a leap year: 8784 h; 2023 and 2025 are not) and the
+  meaning of a yearly rate (deposition per year; common practice);
+* pint's own unit definitions (no workbench registry) with the IUPAC standard atomic
+  weights, abridged to the conventional values (from memory: S 32.06, N 14.007,
+  O 15.999, H 1.008 g/mol), for the conversion of a precipitation-weighted mean in
+  ueq/L over a depth in mm to kg S/ha and kg N/ha.
+
+Sites, dates and concentrations are invented.
+"""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pint
+import pytest
+from wet.wet_samples import make_samples
+
+from workbench import periods as P
+from workbench.analysis.outputs import ion_status
+from workbench.budget import BudgetOptions, annual_factor
+from workbench.budgetstatus import wet_component
+from workbench.wet import WetOptions, screen, wet_deposition
+
+IONS = ("SO4", "NO3", "NH4", "Na")
+S_G_MOL, N_G_MOL = 32.06, 14.007            # IUPAC conventional atomic weights (from memory)
+
+
+def _filled_january():
+    """Dec 2020 30 mm (SO4 20, Na 5 umol/L); January 2021: 1-29 Jan 5 mm (SO4 50) and a
+    contaminated 29 Jan - 1 Feb sample of 20 mm; Feb 2021 10 mm (SO4 80). January's
+    time coverage is 28/31 = 0.903 (passes 0.90) but only 5 of its 25 mm have valid
+    chemistry (0.20 < 0.70): it fails, and period_fill = "seasonal" gives it the winter
+    PWM of the record's used samples, (30 x 20 + 5 x 50 + 10 x 80) / 45 = 36.67 umol/L."""
+    rows = [dict(start="2020-12-01", end="2021-01-01", gauge_depth=30.0, SO4=20, Na=5),
+            dict(start="2021-01-01", end="2021-01-29", gauge_depth=5.0, SO4=50, Na=5),
+            dict(start="2021-01-29", end="2021-02-01", gauge_depth=20.0, SO4=500, Na=5,
+                 flags="contaminated"),
+            dict(start="2021-02-01", end="2021-03-01", gauge_depth=10.0, SO4=80, Na=5)]
+    per = P.make_periods("2020-12-01", "2021-03-01", "month")
+    o = WetOptions(period_fill="seasonal")
+    return wet_deposition(screen(make_samples(rows, ions=IONS), o), per, o)
+
+
+@pytest.mark.parametrize("basis", ["total", "nss"])
+def test_a_period_filled_with_the_seasonal_pwm_reads_filled_in_the_budget(basis):
+    wet = _filled_january()
+    jan = wet.sel(site="A", period="2021-01")
+    winter = (30 * 20 + 5 * 50 + 10 * 80) / 45                       # umol/L, by hand
+    assert jan["valid_precip_fraction"].item() == pytest.approx(5 / 25)
+    assert jan["status"].item() == "filled"
+    assert jan["pwm_SO4"].item() == pytest.approx(winter * 1e-3)        # mol m-3
+    # the budget's wet SO4 of January: the filled number, status 'filled', passing
+    # (docs/budget.md "Status"); before the audit the per-ion rule read the 20 % share
+    # of the period's own samples, which the filled PWM does not rest on, and made it
+    # 'flagged', failing completeness ("SO4 valid for 20.0 % of the precipitation only")
+    w = wet.transpose("site", "period", ...)
+    st = w["status"].values.astype(object)
+    st, note, dep, fails = wet_component(w, "SO4", BudgetOptions(sulfate_basis=basis), st,
+                                         w["completeness_failed"].values)
+    j = list(w["period"].values).index("2021-01")
+    assert st[0, j] == "filled" and not fails[0, j]
+    assert "valid for" not in note[0, j]
+    nss = winter - 0.121 / 2 * 5                # Keene et al. (1986) SO4/Na 0.121 eq/eq
+    want = (nss if basis == "nss" else winter) * 1e-3 * 25e-3           # mol m-2
+    assert dep[0, j] == pytest.approx(want)
+    # precipitation_annual.csv's per-mean status follows the same rule
+    status, share = ion_status(wet, "SO4")
+    assert status[0, j] == "filled" and share[0, j] == pytest.approx(0.2)
+
+
+def _custom(ranges):
+    return P.make_periods(None, None, "custom", ranges=ranges)
+
+
+def test_yearly_rate_of_whole_multi_year_ranges():
+    # calendar: 2023-2024 holds 8760 + 8784 = 17544 h, 2024-2025 8784 + 8760 h; two whole
+    # years give their deposition per year, D / 2, whatever leap day they hold (before:
+    # 8760 / 17544 = 0.4993 and 8784 / 17544 = 0.5007); three years from 1 July, D / 3
+    per = _custom([("2023-01-01", "2025-01-01", "a"), ("2024-01-01", "2026-01-01", "b"),
+                   ("2020-07-01", "2023-07-01", "c"), ("2024-01-01", "2025-01-01", "d")])
+    got = dict(zip(per["label"], annual_factor(per)))
+    assert per.set_index("label").loc["a", "hours"] == 8760 + 8784       # the calendar
+    assert got == {"a": pytest.approx(0.5, rel=1e-12), "b": pytest.approx(0.5, rel=1e-12),
+                   "c": pytest.approx(1 / 3, rel=1e-12), "d": 1.0}
+
+
+def test_yearly_rate_of_a_part_of_a_year_uses_the_hours_of_its_year():
+    # February 2024 (29 days, 696 h) in a leap year of 8784 h; 18 months from 1 January
+    # 2023 are not a whole number of years: 8760 h of 2023 over 13128 h
+    per = _custom([("2024-02-01", "2024-03-01", "feb"), ("2023-01-01", "2024-07-01", "m18")])
+    got = dict(zip(per["label"], annual_factor(per)))
+    assert got["feb"] == pytest.approx(8784 / (29 * 24), rel=1e-12)
+    assert got["m18"] == pytest.approx(8760 / (8760 + 182 * 24), rel=1e-12)
+
+
+def test_ueq_per_litre_over_mm_to_kg_per_ha_with_pint_and_iupac_weights():
+    # a week of 25 mm with SO4 40 ueq/L and NO3 30 ueq/L: pint alone (its own default
+    # registry, no workbench unit), 2 eq per mol of sulfate, 1 per mol of nitrate
+    ureg = pint.UnitRegistry()
+    depth = 25 * ureg.mm
+    s = (40 / 2 * ureg.umol / ureg.L * depth * S_G_MOL * ureg.g / ureg.mol).to("kg/ha")
+    n = (30 * ureg.umol / ureg.L * depth * N_G_MOL * ureg.g / ureg.mol).to("kg/ha")
+    rows = [dict(start="2021-03-01", end="2021-03-08", gauge_depth=25.0, SO4=20.0, NO3=30.0)]
+    o = WetOptions()
+    wet = wet_deposition(screen(make_samples(rows, ions=IONS), o),
+                         _custom([("2021-03-01", "2021-03-08", "wk")]), o)
+    c = wet.sel(site="A", period="wk")
+    assert c["dep_SO4_kg_ha"].item() == pytest.approx(s.magnitude, rel=1e-9)    # 0.1603
+    assert c["dep_NO3_kg_ha"].item() == pytest.approx(n.magnitude, rel=1e-9)    # 0.1051
+    # equivalents: 40 ueq/L x 25 mm = 40 umol of charge per L x 25 L/m2 = 10 eq/ha
+    eq = (40 * ureg.umol / ureg.L * depth).to("mol/ha").magnitude
+    assert eq == pytest.approx(10.0)
+    assert c["dep_SO4_eq_ha"].item() == pytest.approx(eq, rel=1e-9)
