@@ -25,8 +25,8 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .budgetstatus import (bracket_outputs, bulk_caught_brackets, dry_status, join_notes,
-                           nh3_net_component, sampling_gap_note, wet_component,
+from .budgetstatus import (as_flag, bracket_outputs, bulk_caught_brackets, dry_status,
+                           join_notes, nh3_net_component, sampling_gap_note, wet_component,
                            wet_outputs)
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
@@ -317,7 +317,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             wet.reindex(site=sites, period=labels)
         w_status = w.variables["status"].values.astype(object)
         w_status = np.where(pd.isna(w_status), "missing", w_status)
-        w_fail = (w.variables["completeness_failed"].values.astype(bool)
+        w_fail = (as_flag(w.variables["completeness_failed"].values)
                   if "completeness_failed" in w.variables else w_status == "flagged")
         w_frac = np.fmin(np.fmin(w.variables["gauge_fraction"].values, w.variables["coverage_fraction"].values),
                          w.variables["valid_precip_fraction"].values)

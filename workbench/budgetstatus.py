@@ -127,6 +127,21 @@ def sampling_gap_note(note, status, coverage, hours, role):
     return flat.reshape(cov.shape)
 
 
+def as_flag(values):
+    """A boolean variable of the wet chain as bool, NaN read as False [bool].
+
+    The budget reindexes the wet Dataset onto the catalogue's sites and periods, and a
+    site without precipitation samples gets NaN there, which ``astype(bool)`` reads as
+    True: such a site's missing SO4 rows said "total SO4 used ... clipped at 0" until
+    the 2026-12 audit (tests/test_audit_wet_budget.py).
+
+    >>> as_flag(np.array([1.0, 0.0, np.nan])).tolist()
+    [True, False, False]
+    """
+    v = np.asarray(values)
+    return np.where(pd.isna(v), False, v).astype(bool)
+
+
 def wet_mean_status(w, name, w_status, fallback=False):
     """The status rule of one wet mean: of a budget wet component (:func:`wet_component`)
     and of each mean of precipitation_annual.csv
@@ -186,7 +201,7 @@ def wet_mean_status(w, name, w_status, fallback=False):
                           (f"{name}_clipped", f"sea-salt {ion} from {tracer} exceeds the "
                            f"measured {ion}: non-sea-salt {ion} clipped at 0")):
             if var in v:
-                hit = w[var].transpose(*dims).values.astype(bool)
+                hit = as_flag(w[var].transpose(*dims).values)
                 soft |= hit
                 notes.append((hit, text))
     status = np.where(soft & np.isin(status, ("complete", "filled")), "flagged", status)
@@ -207,8 +222,7 @@ def wet_mean_status(w, name, w_status, fallback=False):
             # a PWM filled with the multi-year seasonal PWM (period_fill) does not rest on
             # the period's own samples: their share does not judge it (the period is
             # 'filled', docs/methods_wet.md section 7)
-            got = w["ion_filled"].sel(ion=i).transpose(*dims).values
-            low_i &= ~np.where(pd.isna(got), False, got).astype(bool)
+            low_i &= ~as_flag(w["ion_filled"].sel(ion=i).transpose(*dims).values)
         pct = np.round(100 * np.nan_to_num(frac), 1).astype(str)
         notes.append((low_i, np.char.add(np.char.add(f"{i} valid for ", pct),
                                          " % of the precipitation only")))
