@@ -156,3 +156,34 @@ def test_a_site_without_precipitation_samples_says_only_that(tmp_path):
     for note in rill["note"]:
         assert "clipped" not in note and "total SO4 used" not in note, note
         assert note.endswith("no precipitation samples in the period"), note
+
+
+@pytest.mark.parametrize("treatment, words, factor", [
+    ("half", "half the detection limit", 0.5), ("limit", "the detection limit", 1.0),
+    ("zero", "0", 0.0)])
+def test_a_wet_mean_made_of_substitutes_only_says_so(treatment, words, factor):
+    # two weeks of 10 mm with SO4 '<2 umol/L' and a third with 1 umol/L measured: the
+    # first two weeks' SO4 is factor x 2 umol/L (docs/methods_wet.md section 3.1, the
+    # substitution common practice), a number with no measurement behind it, which
+    # budget.csv now says in the note of the wet row (its status is kept, as the air
+    # side's all-below-detection species, docs/budget.md "Below detection"); the three
+    # weeks hold one measured value and carry no such note
+    rows = [dict(start=f"2021-03-{d:02d}", end=f"2021-03-{d + 7:02d}", gauge_depth=10.0,
+                 SO4=1.0, NO3=5.0, Na=2.0, censored={"SO4": 2.0}) for d in (1, 8, 15)]
+    rows[2]["censored"] = {}
+    per = _custom([("2021-03-01", "2021-03-15", "two"), ("2021-03-01", "2021-03-22", "three")])
+    o = WetOptions(detection_limit=treatment)
+    wet = wet_deposition(screen(make_samples(rows, ions=IONS), o), per, o)
+    w = wet.transpose("site", "period", ...)
+    st, note, dep, _ = wet_component(w, "SO4", BudgetOptions(sulfate_basis="total"),
+                                     w["status"].values.astype(object),
+                                     w["completeness_failed"].values)
+    assert dep[0, 0] == pytest.approx(factor * 2.0 * 1e-3 * 20e-3)        # mol m-2
+    assert dep[0, 1] == pytest.approx((factor * 2.0 * 20 + 1.0 * 10) * 1e-3 * 1e-3)
+    assert st[0, 0] == "complete" and st[0, 1] == "complete"
+    assert f"SO4 below detection in all 2 valid samples ({words} used)" in note[0, 0]
+    assert "below detection" not in note[0, 1]
+    # NO3 was measured in every week: no note about it on the NO3 row
+    _, note_no3, _, _ = wet_component(w, "NO3", BudgetOptions(), w["status"].values.astype(object),
+                                      w["completeness_failed"].values)
+    assert "below detection" not in note_no3[0, 0]

@@ -127,6 +127,11 @@ def sampling_gap_note(note, status, coverage, hours, role):
     return flat.reshape(cov.shape)
 
 
+#: How a censored value was replaced, in words (`WetOptions.detection_limit`).
+CENSORED_WORDS = {"half": "half the detection limit", "limit": "the detection limit",
+                  "zero": "0"}
+
+
 def as_flag(values):
     """A boolean variable of the wet chain as bool, NaN read as False [bool].
 
@@ -229,6 +234,20 @@ def wet_mean_status(w, name, w_status, fallback=False):
         low |= low_i
         share = np.fmin(share, np.where(precip > 0, frac, np.where(precip == 0, 1.0, np.nan)))
     share = np.where(np.isinf(share), np.nan, share)
+    if "ion_all_censored" in v and ion in have:
+        # every value behind the mean is a substitute for one below detection: said in
+        # words, the status kept (docs/methods_wet.md section 3.1, "In the budget")
+        subs = as_flag(w["ion_all_censored"].sel(ion=ion).transpose(*dims).values)
+        if "ion_filled" in v:
+            subs &= ~as_flag(w["ion_filled"].sel(ion=ion).transpose(*dims).values)
+        subs &= (w_status != "missing") & (precip > 0)
+        how = CENSORED_WORDS.get(w.attrs.get("detection_limit_treatment", ""),
+                                 "a substitute")
+        n_val = np.nan_to_num(w["ion_n_valid"].sel(ion=ion).transpose(*dims).values
+                              if "ion_n_valid" in v else np.zeros(shape)).astype(int)
+        notes.append((subs, np.char.add(np.char.add(f"{ion} below detection in all ",
+                                                    n_val.astype(str)),
+                                        f" valid samples ({how} used)")))
     status = np.where(low, "flagged", status)
     dep = (w[f"dep_{name}"].transpose(*dims).values.astype(float) if f"dep_{name}" in v
            else np.full(shape, np.nan))
