@@ -425,6 +425,19 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             fractions["air_coverage"][:, :, :, j] = cov
             fractions["flux_coverage"][:, :, :, j] = fc
             fractions["vd_coverage"][:, :, :, j] = vdc
+    # non-sea-salt pSO4 below 0 over a period (more sea-salt sulfate from pNa than pSO4
+    # itself): clipped at 0 and flagged, as the wet chain's nss SO4 (docs/budget.md,
+    # "Components and units"); the samples stay linear, the period's sum is clipped
+    if options.sulfate_basis == "nss" and dry is not None and "pSO4" in d_species:
+        j = [c[2] for c in comps].index("pSO4")
+        neg = (status[..., j] != "missing") & np.isfinite(dep[..., j]) & (dep[..., j] < 0)
+        if neg.any():
+            dep[..., j] = np.where(neg, 0.0, dep[..., j])
+            status[..., j] = np.where(neg & np.isin(status[..., j], ("complete", "filled")),
+                                      "flagged", status[..., j])
+            comp_note[..., j] = np.where(neg, join_notes(
+                comp_note[..., j], "sea-salt sulfate from pNa exceeds the measured pSO4: "
+                "non-sea-salt pSO4 clipped at 0"), comp_note[..., j])
     # a site's own surface under a land-use class other than its land_use in the period
     # (workbench/surfacehistory.py): its dry rows say which
     lu = period_notes(catalogue, sites, list(receptors), periods)
