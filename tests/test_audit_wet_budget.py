@@ -223,3 +223,41 @@ def test_dry_non_sea_salt_particulate_sulfate_below_zero_is_clipped_and_flagged(
     else:
         assert row["flux_kg_ha"] == pytest.approx(by_hand, rel=1e-3)
         assert row["status"] == "complete"
+
+
+def test_a_wet_row_failing_its_ion_share_shows_that_share_as_its_completeness(tmp_path):
+    # the invented tiny site: four weeks of 8, 12, 4 and 16 mm in February 2021, SO4
+    # analysed in the first week only: 8 of 40 mm = 0.2 of the rain has a SO4 value,
+    # below min_valid_precip_fraction 0.7, so the SO4 row is flagged and fails
+    # (docs/budget.md "Status"); its `completeness`, "smallest of the row's completeness
+    # fractions" (docs/data_formats.md), is that 0.2 (before the audit: 1.0, the period's
+    # fractions over all ions, beside a row that fails completeness)
+    import sys
+    from pathlib import Path
+    sys.path.insert(0, str(Path(__file__).parent))
+    from analysis import tiny_site as T
+
+    from workbench.pipeline import Study
+    from workbench.scenario import load_scenario
+    T.make_tiny(tmp_path)
+    lines = (tmp_path / "precip.csv").read_text().splitlines()
+    head = lines[0].split(",")
+    k = head.index("SO4 [umol/L]")
+    for r in range(2, len(lines)):                       # weeks 2-4: no SO4 value
+        cells = lines[r].split(",")
+        cells[k] = ""
+        lines[r] = ",".join(cells)
+    (tmp_path / "precip.csv").write_text("\n".join(lines) + "\n")
+    sc = load_scenario(tmp_path / "scenario.toml")
+    study = Study.from_scenario(sc)
+    res = study.run(sc.options["wet"], sc.options["dry"], sc.options["budget"],
+                    sc.fixed_velocity, "month", "2021-02-01", "2021-03-01")
+    t = res.table
+    so4 = t[(t["pathway"] == "wet") & (t["species"] == "SO4")].iloc[0]
+    no3 = t[(t["pathway"] == "wet") & (t["species"] == "NO3")].iloc[0]
+    share = T.GAUGE[0] / sum(T.GAUGE)                                       # 0.2
+    assert so4["status"] == "flagged" and not so4["passes"]
+    assert so4["completeness"] == pytest.approx(share)
+    assert no3["completeness"] == pytest.approx(1.0) and no3["status"] == "complete"
+    s_wet = t[(t["pathway"] == "wet") & (t["species"] == "all") & (t["element"] == "S")]
+    assert s_wet["completeness"].iloc[0] == pytest.approx(share)

@@ -336,7 +336,8 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             if wet is None:
                 comp_note[..., j] = "no precipitation chemistry input"
                 continue
-            st, note, d, fl = wet_component(w, sp, options, w_status, w_fail)
+            st, note, d, fl, ion_share = wet_component(w, sp, options, w_status, w_fail,
+                                                       with_share=True)
             if d is None:
                 comp_note[..., j] = f"no {sp} column in the precipitation chemistry"
                 continue
@@ -361,7 +362,9 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             status[:, :, :, j] = st[:, None, :]
             fails[:, :, :, j] = fl[:, None, :]
             comp_note[:, :, :, j] = note[:, None, :]
-            compl[:, :, :, j] = w_frac[:, None, :]
+            # the smallest of the period's fractions and the share of its rain with a
+            # value of this ion (and tracer), the criterion the row is judged by
+            compl[:, :, :, j] = np.fmin(w_frac, ion_share)[:, None, :]
             for name, var in (("wet_gauge_fraction", "gauge_fraction"),
                               ("wet_coverage_fraction", "coverage_fraction"),
                               ("wet_valid_precip_fraction", "valid_precip_fraction"),

@@ -257,7 +257,7 @@ def wet_mean_status(w, name, w_status, fallback=False):
     return status, low, notes, share, gone
 
 
-def wet_component(w, sp, options, w_status, w_fail):
+def wet_component(w, sp, options, w_status, w_fail, with_share=False):
     """Deposition, status, completeness failure and note of a wet component.
 
     The status is :func:`wet_mean_status` of the component's mean (``nss<sp>`` on the
@@ -272,25 +272,29 @@ def wet_component(w, sp, options, w_status, w_fail):
     options : BudgetOptions
     w_status, w_fail : ndarray
         Period status of the wet chain and its completeness failure.
+    with_share : bool
+        Also return the share of the precipitation with a valid value of the ion (and,
+        for nss SO4, of its tracer) [1] (:func:`wet_mean_status`).
 
     Returns
     -------
     status, note : ndarray of str
     deposition : ndarray [mol m-2] or None (no such column)
     fails : ndarray of bool
+    share : ndarray [1] (with `with_share`)
     """
     v = w.variables
     nss = sp == "SO4" and options.sulfate_basis == "nss"
     name = f"nss{sp}" if nss and "dep_nssSO4" in v else sp
     if f"dep_{name}" not in v:
-        return None, None, None, None
+        return (None,) * (5 if with_share else 4)
     d = v[f"dep_{name}"].values.astype(float)
     reasons = v["completeness_reasons"].values.astype(object) if "completeness_reasons" in v \
         else np.full(d.shape, "", object)
     reasons = np.where(pd.isna(reasons), "", reasons).astype(object)   # sites without samples
     note = np.where(w_status != "complete", reasons, "").astype(object)
-    status, low_ion, notes, _, gone = wet_mean_status(w, name, w_status,
-                                                      fallback=nss and name == sp)
+    status, low_ion, notes, share, gone = wet_mean_status(w, name, w_status,
+                                                          fallback=nss and name == sp)
     for hit, text in notes:
         note = np.where(hit, join_notes(note, text), note)
     precip = v["precipitation"].values if "precipitation" in v else np.full(d.shape, np.nan)
@@ -299,7 +303,8 @@ def wet_component(w, sp, options, w_status, w_fail):
                                  "no precipitation depth"), note)
     note = np.where((status == "missing") & (note == ""), "no precipitation samples in the "
                     "period", note)
-    return status, note, d, (w_fail | low_ion) & (status != "missing")
+    fails = (w_fail | low_ion) & (status != "missing")
+    return (status, note, d, fails, share) if with_share else (status, note, d, fails)
 
 
 def wet_outputs(w: xr.Dataset):
