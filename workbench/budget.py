@@ -25,8 +25,8 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .budgetstatus import (bracket_outputs, bulk_caught_brackets, dry_status, join_notes,
-                           nh3_net_component, sampling_gap_note, wet_component,
+from .budgetstatus import (as_flag, bracket_outputs, bulk_caught_brackets, dry_status,
+                           join_notes, nh3_net_component, sampling_gap_note, wet_component,
                            wet_outputs)
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
@@ -179,16 +179,30 @@ def annual_factor(periods: pd.DataFrame) -> np.ndarray:
     hours; 1 for any period of exactly one year (a calendar or hydrological year, a
     custom range from a date to the same date a year later): a whole year is its own
     yearly rate, whether it holds 29 February or not (a hydrological year's label names
-    the year it ends in, which need not be the year of that February).
+    the year it ends in, which need not be the year of that February).  A custom range
+    of exactly k whole years (from a date to the same date k years later) has 1/k: its
+    deposition per year, whatever leap days it holds (the hours of its first year over
+    its hours gave 8760 / 17544 = 0.4993 for 2023-2024; 2026-12 audit).
+
+    >>> import pandas as pd
+    >>> p = pd.DataFrame({"start": pd.to_datetime(["2023-01-01", "2024-02-01"]),
+    ...                   "end": pd.to_datetime(["2025-01-01", "2024-03-01"]),
+    ...                   "hours": [17544.0, 696.0], "year": [-1, -1]})
+    >>> [round(float(f), 4) for f in annual_factor(p)]
+    [0.5, 12.6207]
     """
     year = np.where(periods["year"].to_numpy() > 0, periods["year"].to_numpy(),
                     pd.DatetimeIndex(periods["start"]).year.to_numpy())
     leap = ((year % 4 == 0) & (year % 100 != 0)) | (year % 400 == 0)
     factor = np.where(leap, 8784.0, 8760.0) / periods["hours"].to_numpy(dtype=float)
     start = pd.DatetimeIndex(periods["start"])
-    whole_year = ((start + pd.DateOffset(years=1)).to_numpy("datetime64[ns]")
-                  == periods["end"].to_numpy().astype("datetime64[ns]"))   # not clipped
-    return np.where(whole_year, 1.0, factor)
+    end = periods["end"].to_numpy().astype("datetime64[ns]")
+    n_years = np.maximum(pd.DatetimeIndex(end).year.to_numpy() - start.year.to_numpy(), 1)
+    for k in np.unique(n_years):           # over the distinct numbers of years (few)
+        whole = ((n_years == k) & ((start + pd.DateOffset(years=int(k)))
+                                   .to_numpy("datetime64[ns]") == end))   # not clipped
+        factor = np.where(whole, 1.0 / k, factor)
+    return factor
 
 
 # ------------------------------------------------------------------------------ assembly
@@ -303,7 +317,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             wet.reindex(site=sites, period=labels)
         w_status = w.variables["status"].values.astype(object)
         w_status = np.where(pd.isna(w_status), "missing", w_status)
-        w_fail = (w.variables["completeness_failed"].values.astype(bool)
+        w_fail = (as_flag(w.variables["completeness_failed"].values)
                   if "completeness_failed" in w.variables else w_status == "flagged")
         w_frac = np.fmin(np.fmin(w.variables["gauge_fraction"].values, w.variables["coverage_fraction"].values),
                          w.variables["valid_precip_fraction"].values)
@@ -322,7 +336,8 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             if wet is None:
                 comp_note[..., j] = "no precipitation chemistry input"
                 continue
-            st, note, d, fl = wet_component(w, sp, options, w_status, w_fail)
+            st, note, d, fl, ion_share = wet_component(w, sp, options, w_status, w_fail,
+                                                       with_share=True)
             if d is None:
                 comp_note[..., j] = f"no {sp} column in the precipitation chemistry"
                 continue
@@ -347,7 +362,9 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             status[:, :, :, j] = st[:, None, :]
             fails[:, :, :, j] = fl[:, None, :]
             comp_note[:, :, :, j] = note[:, None, :]
-            compl[:, :, :, j] = w_frac[:, None, :]
+            # the smallest of the period's fractions and the share of its rain with a
+            # value of this ion (and tracer), the criterion the row is judged by
+            compl[:, :, :, j] = np.fmin(w_frac, ion_share)[:, None, :]
             for name, var in (("wet_gauge_fraction", "gauge_fraction"),
                               ("wet_coverage_fraction", "coverage_fraction"),
                               ("wet_valid_precip_fraction", "valid_precip_fraction"),
@@ -411,6 +428,19 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             fractions["air_coverage"][:, :, :, j] = cov
             fractions["flux_coverage"][:, :, :, j] = fc
             fractions["vd_coverage"][:, :, :, j] = vdc
+    # non-sea-salt pSO4 below 0 over a period (more sea-salt sulfate from pNa than pSO4
+    # itself): clipped at 0 and flagged, as the wet chain's nss SO4 (docs/budget.md,
+    # "Components and units"); the samples stay linear, the period's sum is clipped
+    if options.sulfate_basis == "nss" and dry is not None and "pSO4" in d_species:
+        j = [c[2] for c in comps].index("pSO4")
+        neg = (status[..., j] != "missing") & np.isfinite(dep[..., j]) & (dep[..., j] < 0)
+        if neg.any():
+            dep[..., j] = np.where(neg, 0.0, dep[..., j])
+            status[..., j] = np.where(neg & np.isin(status[..., j], ("complete", "filled")),
+                                      "flagged", status[..., j])
+            comp_note[..., j] = np.where(neg, join_notes(
+                comp_note[..., j], "sea-salt sulfate from pNa exceeds the measured pSO4: "
+                "non-sea-salt pSO4 clipped at 0"), comp_note[..., j])
     # a site's own surface under a land-use class other than its land_use in the period
     # (workbench/surfacehistory.py): its dry rows say which
     lu = period_notes(catalogue, sites, list(receptors), periods)

@@ -127,6 +127,26 @@ def sampling_gap_note(note, status, coverage, hours, role):
     return flat.reshape(cov.shape)
 
 
+#: How a censored value was replaced, in words (`WetOptions.detection_limit`).
+CENSORED_WORDS = {"half": "half the detection limit", "limit": "the detection limit",
+                  "zero": "0"}
+
+
+def as_flag(values):
+    """A boolean variable of the wet chain as bool, NaN read as False [bool].
+
+    The budget reindexes the wet Dataset onto the catalogue's sites and periods, and a
+    site without precipitation samples gets NaN there, which ``astype(bool)`` reads as
+    True: such a site's missing SO4 rows said "total SO4 used ... clipped at 0" until
+    the 2026-12 audit (tests/test_audit_wet_budget.py).
+
+    >>> as_flag(np.array([1.0, 0.0, np.nan])).tolist()
+    [True, False, False]
+    """
+    v = np.asarray(values)
+    return np.where(pd.isna(v), False, v).astype(bool)
+
+
 def wet_mean_status(w, name, w_status, fallback=False):
     """The status rule of one wet mean: of a budget wet component (:func:`wet_component`)
     and of each mean of precipitation_annual.csv
@@ -186,7 +206,7 @@ def wet_mean_status(w, name, w_status, fallback=False):
                           (f"{name}_clipped", f"sea-salt {ion} from {tracer} exceeds the "
                            f"measured {ion}: non-sea-salt {ion} clipped at 0")):
             if var in v:
-                hit = w[var].transpose(*dims).values.astype(bool)
+                hit = as_flag(w[var].transpose(*dims).values)
                 soft |= hit
                 notes.append((hit, text))
     status = np.where(soft & np.isin(status, ("complete", "filled")), "flagged", status)
@@ -203,12 +223,31 @@ def wet_mean_status(w, name, w_status, fallback=False):
         # equal to the minimum (to rounding) passes, as the wet chain's own criteria
         low_i = (np.isfinite(frac) & falls_short(frac, need) & (frac > 0)
                  & (w_status != "missing"))
+        if "ion_filled" in v:
+            # a PWM filled with the multi-year seasonal PWM (period_fill) does not rest on
+            # the period's own samples: their share does not judge it (the period is
+            # 'filled', docs/methods_wet.md section 7)
+            low_i &= ~as_flag(w["ion_filled"].sel(ion=i).transpose(*dims).values)
         pct = np.round(100 * np.nan_to_num(frac), 1).astype(str)
         notes.append((low_i, np.char.add(np.char.add(f"{i} valid for ", pct),
                                          " % of the precipitation only")))
         low |= low_i
         share = np.fmin(share, np.where(precip > 0, frac, np.where(precip == 0, 1.0, np.nan)))
     share = np.where(np.isinf(share), np.nan, share)
+    if "ion_all_censored" in v and ion in have:
+        # every value behind the mean is a substitute for one below detection: said in
+        # words, the status kept (docs/methods_wet.md section 3.1, "In the budget")
+        subs = as_flag(w["ion_all_censored"].sel(ion=ion).transpose(*dims).values)
+        if "ion_filled" in v:
+            subs &= ~as_flag(w["ion_filled"].sel(ion=ion).transpose(*dims).values)
+        subs &= (w_status != "missing") & (precip > 0)
+        how = CENSORED_WORDS.get(w.attrs.get("detection_limit_treatment", ""),
+                                 "a substitute")
+        n_val = np.nan_to_num(w["ion_n_valid"].sel(ion=ion).transpose(*dims).values
+                              if "ion_n_valid" in v else np.zeros(shape)).astype(int)
+        notes.append((subs, np.char.add(np.char.add(f"{ion} below detection in all ",
+                                                    n_val.astype(str)),
+                                        f" valid samples ({how} used)")))
     status = np.where(low, "flagged", status)
     dep = (w[f"dep_{name}"].transpose(*dims).values.astype(float) if f"dep_{name}" in v
            else np.full(shape, np.nan))
@@ -218,7 +257,7 @@ def wet_mean_status(w, name, w_status, fallback=False):
     return status, low, notes, share, gone
 
 
-def wet_component(w, sp, options, w_status, w_fail):
+def wet_component(w, sp, options, w_status, w_fail, with_share=False):
     """Deposition, status, completeness failure and note of a wet component.
 
     The status is :func:`wet_mean_status` of the component's mean (``nss<sp>`` on the
@@ -233,25 +272,29 @@ def wet_component(w, sp, options, w_status, w_fail):
     options : BudgetOptions
     w_status, w_fail : ndarray
         Period status of the wet chain and its completeness failure.
+    with_share : bool
+        Also return the share of the precipitation with a valid value of the ion (and,
+        for nss SO4, of its tracer) [1] (:func:`wet_mean_status`).
 
     Returns
     -------
     status, note : ndarray of str
     deposition : ndarray [mol m-2] or None (no such column)
     fails : ndarray of bool
+    share : ndarray [1] (with `with_share`)
     """
     v = w.variables
     nss = sp == "SO4" and options.sulfate_basis == "nss"
     name = f"nss{sp}" if nss and "dep_nssSO4" in v else sp
     if f"dep_{name}" not in v:
-        return None, None, None, None
+        return (None,) * (5 if with_share else 4)
     d = v[f"dep_{name}"].values.astype(float)
     reasons = v["completeness_reasons"].values.astype(object) if "completeness_reasons" in v \
         else np.full(d.shape, "", object)
     reasons = np.where(pd.isna(reasons), "", reasons).astype(object)   # sites without samples
     note = np.where(w_status != "complete", reasons, "").astype(object)
-    status, low_ion, notes, _, gone = wet_mean_status(w, name, w_status,
-                                                      fallback=nss and name == sp)
+    status, low_ion, notes, share, gone = wet_mean_status(w, name, w_status,
+                                                          fallback=nss and name == sp)
     for hit, text in notes:
         note = np.where(hit, join_notes(note, text), note)
     precip = v["precipitation"].values if "precipitation" in v else np.full(d.shape, np.nan)
@@ -260,7 +303,8 @@ def wet_component(w, sp, options, w_status, w_fail):
                                  "no precipitation depth"), note)
     note = np.where((status == "missing") & (note == ""), "no precipitation samples in the "
                     "period", note)
-    return status, note, d, (w_fail | low_ion) & (status != "missing")
+    fails = (w_fail | low_ion) & (status != "missing")
+    return (status, note, d, fails, share) if with_share else (status, note, d, fails)
 
 
 def wet_outputs(w: xr.Dataset):

@@ -207,8 +207,10 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         the precipitation carried by kept flagged samples);
         ``nss<X>_total_used`` and ``nss<X>_clipped`` (bool: no tracer, so the total
         ion stands in; negative nss clipped at 0);
-        ``ion_valid_precip_fraction``, ``ion_n_valid``, ``ion_n_censored``
-        (site, period, ion).  The attributes hold the provenance (JSON texts).
+        ``ion_valid_precip_fraction``, ``ion_n_valid``, ``ion_n_censored``,
+        ``ion_filled`` (site, period, ion; the ion's PWM is the seasonal fill),
+        ``ion_all_censored`` (every valid value of the ion below detection).
+        The attributes hold the provenance (JSON texts).
 
     Notes
     -----
@@ -315,6 +317,7 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         failed |= mask
     failed &= ~missing
     filled = np.zeros(shape, bool)
+    ion_fill = {sp: np.zeros(shape, bool) for sp in species}     # the ion's PWM was filled
     fill_n = 0
     if opt.period_fill == "seasonal" and failed.any():
         by_season, whole = _climatology(screened, opt, met, site_idx, n_site, species,
@@ -328,6 +331,7 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
             # record fails keeps its own PWM and stays flagged (section 7)
             take = failed & wet & np.isfinite(clim) & ~gauge_short
             filled |= take
+            ion_fill[sp] = take
             pwm[sp] = np.where(take, clim, pwm[sp])
         fill_n = int(filled.sum())
     # kept samples that failed a check (flagged, not excluded): the period says so
@@ -435,7 +439,7 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     frac_ion = np.stack([np.where(precip > 0, valid_precip(
         used_s & np.isfinite(np.asarray(screened.variables[sp].values, dtype=float)))
         / np.where(precip > 0, precip, 1.0), np.nan) for sp in ions], axis=-1)
-    nval_ion, ncen_ion = [], []
+    nval_ion, ncen_ion, allcen_ion = [], [], []
     for sp in ions:
         c = np.asarray(screened.variables[sp].values, dtype=float)[i]
         nval_ion.append(per((used & np.isfinite(c)).astype(float)).astype(int))
@@ -443,10 +447,19 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         cen = (np.asarray(screened.variables[cen_name].values, bool)[i] if cen_name in screened
                else np.zeros(len(i), bool))
         ncen_ion.append(per((used & cen).astype(float)).astype(int))
+        # every value behind the ion's PWM is a substitute for a censored one
+        n_sub = per((used & cen & np.isfinite(c)).astype(float)).astype(int)
+        allcen_ion.append((nval_ion[-1] > 0) & (n_sub == nval_ion[-1]))
     coords["ion"] = ions
     out["ion_valid_precip_fraction"] = (("site", "period", "ion"), frac_ion,
                                         {"units": "1", "long_name": "fraction of precipitation "
                                          "with a valid value of the ion"})
+    out["ion_all_censored"] = (("site", "period", "ion"), np.stack(allcen_ion, -1),
+                               {"long_name": "every valid value of the ion in the period is "
+                                "below detection (its PWM is made of substitutes)"})
+    out["ion_filled"] = (("site", "period", "ion"), np.stack([ion_fill[sp] for sp in ions], -1),
+                         {"long_name": "the ion's PWM is the multi-year seasonal PWM "
+                          "(period_fill), not the period's own samples"})
     out["ion_n_valid"] = (("site", "period", "ion"), np.stack(nval_ion, -1),
                           {"units": "1", "long_name": "valid samples with a value of the ion"})
     out["ion_n_censored"] = (("site", "period", "ion"), np.stack(ncen_ion, -1),
