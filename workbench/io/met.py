@@ -16,7 +16,7 @@ import xarray as xr
 from ..errors import InputError, suggest
 from . import metchecks, methours
 from .metclock import add_clock_notes
-from .common import check_sites, check_time_zones, join_reasons, unit_error
+from .common import check_sites, check_time_zones, join_reasons, unit_error, unused_note
 from .ledger import Ledger
 from .readbytes import changed_while_read, record_whole
 from .table import RawTable
@@ -116,7 +116,7 @@ def read_met(path, catalogue):
                              methours.kept_on_utc(measured, clock)))
     unknown = tab.unknown_columns(set(MET_VARIABLES) | {"site", "time"})
     if unknown:
-        ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
+        ledger.notes.append(unused_note(tab.path.name, unknown))
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
     if tab.end_of_day_note():

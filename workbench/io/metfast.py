@@ -68,7 +68,7 @@ from ..threads import map_ordered, threads_here
 from ..units import parse_header
 from . import metchecks, methours, metlocate
 from .metclock import add_clock_notes
-from .common import join_reasons, release_free_memory
+from .common import join_reasons, release_free_memory, unused_note
 from .ledger import CodedRows, Ledger
 from .linechunks import (Source, gunzip, header_cells, line_cells, normalise, parsed_cells,
                          plain, plain_rows, read_head)
@@ -249,10 +249,8 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
         release_free_memory()     # what the parsing threads freed stays in their arenas
         if not ok:
             return None
-        if ("fields",) in firsts:    # the line reader's parser refuses the file first
-            raise InputError("malformed CSV row (wrong number of fields)", file=path,
-                             line=firsts[("fields",)][0],
-                             expected=f"{len(names)} fields as in the header")
+        if ("fields",) in firsts:    # the line reader's parser refuses the file first:
+            return None              # its message, with the cells of the row (a hint)
         got = None
         zones = None
         if not any(k[0] in ("site", "time") for k in firsts):   # else raised before
@@ -544,7 +542,7 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour):
     add_clock_notes(ds, ledger, catalogue, path, CHECK_ROWS)   # after the gaps, as the line reader
     unknown = [raw_headers[c] for c in raw_headers if c not in set(variables) | {"site", "time"}]
     if unknown:
-        ledger.notes.append(f"{path.name}: columns not used: {', '.join(unknown)}")
+        ledger.notes.append(unused_note(path.name, unknown))
     note = metlocate.missing_note(path, raw_headers, rows.missing, 0)   # file lines kept
     if note:
         ledger.notes.append(note)

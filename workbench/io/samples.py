@@ -19,7 +19,7 @@ from ..errors import InputError, suggest
 from ..units import Q_, convert_plain, parse_header, to_amount
 from . import plausible as _plausible
 from .common import (check_intervals, check_overlaps, check_sites, check_time_zones,
-                     duplicate_rows, join_reasons, unit_error)
+                     duplicate_rows, join_reasons, unit_error, unused_note)
 from .gaugerows import check_gauge_sampler
 from .ledger import Ledger
 from .samplerids import check_spellings, typo_notes
@@ -369,7 +369,7 @@ def read_precipitation(path, catalogue, flag_map=None):
     if repeat_note:
         ledger.notes.append(repeat_note)
     if unknown:
-        ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
+        ledger.notes.append(unused_note(tab.path.name, unknown))
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
     if tab.end_of_day_note():
@@ -590,7 +590,7 @@ def read_air(path, catalogue, reference_state=None):
     if repeat_note:
         ledger.notes.append(repeat_note)
     if unknown:
-        ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
+        ledger.notes.append(unused_note(tab.path.name, unknown))
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
     if tab.end_of_day_note():
