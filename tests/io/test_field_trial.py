@@ -146,7 +146,7 @@ def _expect_cell(reader, value):
             return ("error", [at, "censored value not allowed here", "got '<0.02'"])
         return ("reason", f"{label} below detection")
     if value == "":
-        return (("reason", "temperature missing (empty cell)") if reader == "met"
+        return (("reason", "temperature missing (no value)") if reader == "met"
                 else ("value", np.nan))
     if value == "1.5 mg":
         return ("error", [at, "a unit in the cell?", "got '1.5 mg'"])
@@ -367,7 +367,7 @@ def test_empty_cell_of_a_required_met_variable_flags_its_row(tmp_path, readers, 
     p.write_text(_cell(MET, 5, "temperature", ""))
     ds, led = readers["met"](p, cat)
     row = led.table[led.table["line"] == 6].iloc[0]
-    assert (row["status"], row["reason"]) == ("flagged", "temperature missing (empty cell)")
+    assert (row["status"], row["reason"]) == ("flagged", "temperature missing (no value)")
     assert (led.table["status"] == "flagged").sum() == 1
     assert np.isnan(ds["temperature"].values[0, 3])
 
@@ -382,7 +382,7 @@ def test_a_row_of_empty_cells_is_still_rejected_alone(tmp_path, readers, cat):
     p.write_text("\n".join(lines) + "\n")
     _, led = readers["met"](p, cat)
     row = led.table[led.table["line"] == 6].iloc[0]
-    assert row["status"] == "rejected" and "missing (empty cell)" not in row["reason"]
+    assert row["status"] == "rejected" and "missing (no value)" not in row["reason"]
 
 
 def test_clock_going_forward_hour_is_hinted(tmp_path, readers, cat):

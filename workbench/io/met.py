@@ -174,7 +174,8 @@ def _assemble(values, sites, t, lines, path, catalogue, raw_units, empty_reason)
     empty = np.ones(n, bool)
     for v in values.values():
         empty &= np.isnan(v)
-    reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, raw_units)
+    reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, raw_units,
+                                               missing="no value")
     reasons = np.where(empty, join_reasons([reasons, np.full(n, empty_reason, object)]), reasons)
     ledger = Ledger.for_many_rows(path, lines, sites, reasons, empty)
     keep = ~empty
@@ -381,7 +382,8 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
         empty = np.ones(len(sites), bool)
         for v in values.values():
             empty &= np.isnan(v)
-        reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, raw_units)
+        reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, raw_units,
+                                                   missing="no value")
         reasons = np.asarray(reasons, dtype=object)
         if empty.any():                     # joined on the empty records only
             reasons[empty] = join_reasons([reasons[empty], np.full(

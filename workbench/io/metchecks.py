@@ -223,8 +223,16 @@ def _celsius_as_f(temp, med, frame, t, per_site, mask, unit):
          "41 degF in a whole year at a site below 50 deg latitude and 1000 m (masked)")
 
 
-def run_row_checks(values, sites, t, catalogue, raw_units):
+def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None = None):
     """Run the per-row and per-site checks.
+
+    Parameters
+    ----------
+    missing : str, optional
+        How a missing value is written in the file (``"no value"``): a row
+        holding some values but not one of :data:`REQUIRED_NAMES` is flagged
+        ``"<variable> missing (<missing>)"``.  None (the grid, whose missing hours have
+        a note of their own): not flagged.
 
     Returns
     -------
@@ -263,12 +271,14 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
 
     # an empty cell of a required variable in a row that holds other values: a gap of
     # that variable at that hour, flagged (a row of empty cells is rejected elsewhere)
-    some = np.zeros(n, bool)
-    for v in values.values():
-        some |= ~np.isnan(v)
-    for name in REQUIRED_NAMES:
-        if name in values:
-            flag(np.isnan(values[name]) & some, f"{name.replace('_', ' ')} missing (empty cell)")
+    if missing is not None:
+        some = np.zeros(n, bool)
+        for v in values.values():
+            some |= ~np.isnan(v)
+        for name in REQUIRED_NAMES:
+            if name in values:
+                flag(np.isnan(values[name]) & some,
+                     f"{name.replace('_', ' ')} missing ({missing})")
     # missing-value codes first: one -999 or 9999 must not make a site look mis-scaled
     coded, coded_reasons = missing_codes(values, raw_units)
     for name, sel in coded.items():

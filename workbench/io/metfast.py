@@ -493,7 +493,8 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour):
         empty = np.ones(len(grp), bool)
         for v in sub.values():
             empty &= np.isnan(v)
-        reasons, sub = metchecks.run_row_checks(sub, ids[st], tt, catalogue, units)
+        reasons, sub = metchecks.run_row_checks(sub, ids[st], tt, catalogue, units,
+                                                   missing="no value")
         reasons = np.asarray(reasons, dtype=object)
         if empty.any():                     # joined on the empty rows only (the same text)
             reasons[empty] = join_reasons([reasons[empty], np.full(int(empty.sum()),
