@@ -77,7 +77,7 @@ from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
 from .readbytes import HashingFile
 from .table import (_OFFSET, SAMPLE_MISSING_TEXTS, YEARS, end_of_day, end_of_day_note,
-                    parse_iso)
+                    fields_error, parse_iso)
 
 #: Bytes of text parsed at a time (by each thread; see :func:`workbench.threads.map_ordered`).
 CHUNK_BYTES = 8 << 20
@@ -249,8 +249,9 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
         release_free_memory()     # what the parsing threads freed stays in their arenas
         if not ok:
             return None
-        if ("fields",) in firsts:    # the line reader's parser refuses the file first:
-            return None              # its message, with the cells of the row (a hint)
+        if ("fields",) in firsts:    # the line reader's parser refuses the file first
+            line = firsts[("fields",)][0]
+            raise fields_error(path, line, len(names), _line_cells(path, line))
         got = None
         zones = None
         if not any(k[0] in ("site", "time") for k in firsts):   # else raised before
@@ -407,6 +408,24 @@ class _ChunkParser:
         """The first row of each kind of failure (metlocate), or None."""
         return metlocate.suspicious_rows(chunk, self.names, self.used, self.index, self.off_ns,
                                          self.label, self.hour)
+
+
+def _line_cells(path, line: int):
+    """The cells of file line `line` (1-based) of a (gzipped) CSV, read up to it, for
+    the hint of a malformed row (:func:`workbench.io.table.fields_error`); None when it
+    cannot be read."""
+    import csv
+    import gzip
+    import itertools
+    try:
+        with open(path, "rb") as f:
+            gz = f.read(2) == b"\x1f\x8b"
+        opener = gzip.open if gz else open
+        with opener(path, "rt", encoding="utf-8-sig", errors="replace", newline="") as f:
+            text = next(itertools.islice(f, line - 1, None), None)
+        return None if text is None else next(csv.reader([text]), None)
+    except (OSError, EOFError, ValueError):
+        return None
 
 
 def _parse(source, rows, parser, chunk_bytes, size_hint):
