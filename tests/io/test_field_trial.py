@@ -434,3 +434,30 @@ def test_a_decimal_comma_in_a_comma_file_is_hinted(tmp_path, readers, cat, reade
     with pytest.raises(InputError) as e:
         readers[reader](p, cat)
     assert "a decimal comma, as in '1,5'? write '1.5'" in str(e.value)
+
+
+# ------------------------------------------------------------------ sites.toml
+@pytest.mark.parametrize("case, edit, expect", [
+    ("utf8_bom", lambda t: ("\ufeff" + t).encode(), None),
+    ("windows_line_ends", lambda t: t.replace("\n", "\r\n").encode(), None),
+    ("latin1_name", lambda t: t.replace("Alpha Test Field", "Alpha T\u00e9st Field")
+     .encode("latin-1"), ["line 3: not UTF-8 text", "save as UTF-8"]),
+    ("decimal_comma", lambda t: t.replace("latitude = 52.0", "latitude = 52,0").encode(),
+     ["line 4: invalid TOML"]),
+    ("number_as_text", lambda t: t.replace("latitude = 52.0", 'latitude = "52.0"').encode(),
+     ["line 4, column 'latitude': wrong type: got '52.0'", "write the number without quotes"]),
+    ("offset_as_text", lambda t: t.replace("utc_offset_h = 1", 'utc_offset_h = "+01:00"')
+     .encode(), ["line 11, column 'utc_offset_h': wrong type: got '+01:00'"]),
+])
+def test_site_catalogue_as_saved_by_editors(tmp_path, case, edit, expect):
+    p = tmp_path / "sites.toml"
+    p.write_bytes(edit(SITES))
+    if expect is None:
+        assert list(read_sites(p).ids) == ["alpha", "beta"]
+        return
+    with pytest.raises(InputError) as e:
+        read_sites(p)
+    msg = str(e.value)
+    assert msg.startswith(f"{p}, "), msg
+    for text in expect:
+        assert text in msg, msg
