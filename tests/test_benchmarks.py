@@ -193,3 +193,10 @@ def test_sheet_met_benchmark_reads_every_variant_alike(capsys):
     assert [r["file"] for r in out] == ["quoted CRLF", "plain", "numbered"]
     assert len({r["rows"] for r in out}) == 1 and out[0]["rows"] > 0
     assert len({r["sites"] for r in out}) == 1
+
+
+def test_lazy_hash_reads_and_hashes_the_netcdf_met(tmp_path, capsys):
+    bench = _load("lazy_hash")
+    bench.met_case(tmp_path, 1, 1)
+    out = capsys.readouterr().out
+    assert out.startswith("NetCDF met x1: ") and "% of the read" in out, out

@@ -547,3 +547,37 @@ def test_grid_input_edited_keeping_size_and_mtime_is_named(site, tmp_path, monke
     assert rec["sha256"] == before != hashlib.sha256(lu.read_bytes()).hexdigest()
     assert not any(prov["inputs"][r].get("changed_after_read") for r in ("met", "air"))
     assert f"warning: {lu} changed after the run read it" in capsys.readouterr().err
+
+
+@pytest.mark.parametrize("role", ["met", "air"])
+def test_grid_input_edited_while_the_blocks_read_it_refuses_the_run(site, tmp_path,
+                                                                    monkeypatch, capsys, role):
+    """Old code: the met and air grids, read block by block until grid.nc is written,
+    were hashed again before the maps were written (with dask, before they were
+    computed): an edit saved then gave maps of the new content, or of both, under the
+    old checksum, and the run was written.  Now the check follows the last read and a
+    changed met or air grid refuses the run: no output folder."""
+    import os
+
+    from workbench import grid_output
+    from workbench.cli import main
+    paths = _write(tmp_path / "in", site)
+    (tmp_path / "in" / "scenario.toml").write_text(
+        '[grid]\nmet = "met.nc"\nair = "air.nc"\nland_use = "land_use.nc"\n'
+        '[period]\nresolution = "month"\n')
+    target = Path(paths[role])
+    real = grid_output.write_grid_netcdf
+
+    def edit_then_write(ds, path):
+        st = os.stat(target)
+        raw = bytearray(target.read_bytes())
+        raw[-1] ^= 0x01                                   # one byte, size and time kept
+        target.write_bytes(bytes(raw))
+        os.utime(target, ns=(st.st_atime_ns, st.st_mtime_ns))
+        return real(ds, path)
+    monkeypatch.setattr(grid_output, "write_grid_netcdf", edit_then_write)
+    assert main(["grid", str(tmp_path / "in" / "scenario.toml"), "--out",
+                 str(tmp_path / "out"), "--quiet", "--block", "6"]) != 0
+    err = capsys.readouterr().err
+    assert f"{target}: changed while it was read" in err and "Traceback" not in err
+    assert not (tmp_path / "out").exists()

@@ -20,7 +20,7 @@ import xarray as xr
 
 from . import __version__
 from .grid import DRY_SPECIES, compute_grid, default_block, make_periods, staged
-from .grid_io import block_catalogue, describe, open_grid, read_block
+from .grid_io import GridError, block_catalogue, describe, open_grid, read_block
 from .landuse import LAND_USE
 from .runfolder import OutputError, RunFolder, os_error_message
 
@@ -28,6 +28,10 @@ from .runfolder import OutputError, RunFolder, os_error_message
 #: (1 ha = 1e4 m2).
 KG_PER_HA = "1e-4 kg m-2"
 GRID_FILE = "grid.nc"
+#: The grid inputs read block by block while the maps are computed (the land-use grid
+#: is read whole by :func:`workbench.grid_io.open_grid`): one that changes before the
+#: last read refuses the run.
+LAZY_GRID_INPUTS = ("met", "air")
 
 
 def _attrs(name, grid, mapping) -> dict:
@@ -309,6 +313,7 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
     from .errors import ScenarioError
     from .scenario import load_scenario
     from .io.inputs import file_stamp
+    from .io.readbytes import changed_while_read
     from .writers import changed_note, provenance
     sc = load_scenario(scenario_path)
     paths = grid_paths(sc)
@@ -347,11 +352,8 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
                 arr = client.compute(arr).result()
                 where = (f" on the dask scheduler at {scheduler}" if scheduler
                          else f" on a local dask cluster of {workers} workers")
-            changed = {r: p for r, p in paths.items() if file_stamp(p) != read[r]}
-            for p_changed in changed.values():
-                print(f"warning: {changed_note(p_changed, None)}", file=sys.stderr)
-            prov = provenance(sc, {"scenario": sc.path, **paths}, started, changed=changed,
-                              read=read)
+            prov = provenance(sc, {"scenario": sc.path, **paths}, started,
+                              read={"scenario": sc.sha256, **read})
             history = (f"{started:%Y-%m-%dT%H:%M:%SZ} workbench grid {sc.path} (deposition "
                        f"workbench {__version__}; blocks of {block} cells"
                        f"{' as dask tasks' if use_dask else ''}{where}); inputs: "
@@ -369,6 +371,21 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
                                   "into the output folder") from exc
             flags = flag_notes(target, grid)      # the scratch copy, if any, still here
         grid.notes.extend(missing := flags + missing_met_notes(target, grid))
+        # after the last read of the inputs (grid.nc is written): the met and air grids
+        # are read block by block until then, so an edit meanwhile may have given some
+        # blocks the old content and some the new: refused; the land-use grid and the
+        # scenario are read whole before the blocks: an edit is named, as for a site run
+        for role in LAZY_GRID_INPUTS:
+            err = changed_while_read(paths[role], read[role], GridError)
+            if err is not None:
+                raise err
+        changed = {r: p for r, p in {"scenario": sc.path, **paths}.items()
+                   if file_stamp(p) != ({"scenario": sc.sha256, **read})[r]}
+        for p_changed in changed.values():
+            print(f"warning: {changed_note(p_changed, None)}", file=sys.stderr)
+        if changed:
+            prov.update(provenance(sc, {"scenario": sc.path, **paths}, started,
+                                   changed=changed, read={"scenario": sc.sha256, **read}))
         for note in missing:
             say(f"note: {note}")
         try:

@@ -119,6 +119,9 @@ class Scenario:
     #: from the apps: the folder of the scenario the app opened); None: the working
     #: directory.
     folder: Path | None = None
+    #: SHA-256 (hex) of the bytes the scenario was parsed from (None when built in
+    #: memory): what provenance.json records for it.
+    sha256: str | None = None
 
     @property
     def base(self) -> Path:
@@ -514,10 +517,14 @@ def load_scenario(path, require_inputs: bool = True) -> Scenario:
     -------
     Scenario
     """
+    from .io.readbytes import path_key, recording
     from .io.tomlfile import read_toml
     path = Path(path).resolve()
-    raw, text = read_toml(path, ScenarioError, "scenario file not found")
-    return validate(raw, path, text, require_inputs=require_inputs)
+    with recording() as seen:            # the SHA-256 of the very bytes parsed
+        raw, text = read_toml(path, ScenarioError, "scenario file not found")
+    sc = validate(raw, path, text, require_inputs=require_inputs)
+    sc.sha256 = seen.get(path_key(path))
+    return sc
 
 
 def load_scenario_inputs(scenario: Scenario, progress=None):

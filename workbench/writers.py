@@ -215,14 +215,24 @@ def environment() -> dict:
     return {"python": platform.python_version(), "platform": platform.platform(), **libs}
 
 
-def changed_since_read(study) -> dict:
-    """role -> path of each input of `study` whose content now differs from the bytes it
-    was read from (SHA-256, :attr:`workbench.io.inputs.Inputs.stamps`): edited after it
-    was read, whatever its size and modification time; its numbers came from the
-    content recorded in provenance.json, not from the file as it is now."""
+def read_digests(study, scenario=None) -> dict:
+    """role -> SHA-256 of the bytes each input of a run was parsed from: the inputs'
+    (:attr:`workbench.io.inputs.Inputs.stamps`) and the scenario file's
+    (:attr:`workbench.scenario.Scenario.sha256`)."""
+    read = dict(getattr(study.inputs, "stamps", {}) or {})
+    if scenario is not None and scenario.path is not None and getattr(scenario, "sha256", None):
+        read["scenario"] = scenario.sha256
+    return read
+
+
+def changed_since_read(study, scenario=None) -> dict:
+    """role -> path of each input of `study` (and of the `scenario` file) whose content
+    now differs from the bytes it was read from (SHA-256, :func:`read_digests`): edited
+    after it was read, whatever its size and modification time; its numbers came from
+    the content recorded in provenance.json, not from the file as it is now."""
     from .io.inputs import file_stamp
-    stamps = getattr(study.inputs, "stamps", {}) or {}
-    return {role: p for role, p in study.inputs.paths.items()
+    stamps = read_digests(study, scenario)
+    return {role: p for role, p in input_paths(study, scenario).items()
             if role in stamps and file_stamp(p) != stamps[role]}
 
 
@@ -427,12 +437,11 @@ def write_files(result, study, scenario, folder: Path, progress=None, started=No
         path = folder / name
         try:
             if writer is None:
-                changed = changed_since_read(study)
+                changed = changed_since_read(study, scenario)
                 prov = provenance(scenario, input_paths(study, scenario), started,
                                   out=folder if out is None else out,
                                   resolution=getattr(result, "options", {}).get("resolution"),
-                                  changed=changed,
-                                  read=getattr(study.inputs, "stamps", None))
+                                  changed=changed, read=read_digests(study, scenario))
                 prov["outputs"] = names + ["provenance.json"]
                 prov["output_sha256"] = {n: sha256(folder / n) for n in names}
                 prov["input_notes"] = [shown_text(str(n), base) for n in study.inputs.ledger.notes]

@@ -300,3 +300,28 @@ def release_free_memory() -> bool:
 
 
 _TRIM = None
+
+
+_UNNAMED = re.compile(r"^Unnamed: (\d+)$")
+
+
+def unused_note(file_name: str, unknown) -> str:
+    """The note of the columns a reader does not use; a column without a header (what
+    pandas calls ``Unnamed: k``, k 0-based) is named by its place, 1-based, as a
+    spreadsheet counts it, so the user reads what it is rather than a name the file
+    does not hold.
+
+    >>> unused_note("p.csv", ["comment", "Unnamed: 14", "Unnamed: 15"])
+    'p.csv: columns not used: comment; 2 columns without a header (columns 15-16: trailing separators of a spreadsheet export?)'
+    """
+    named = [str(u) for u in unknown if not _UNNAMED.match(str(u))]
+    places = sorted(int(_UNNAMED.match(str(u))[1]) + 1 for u in unknown
+                    if _UNNAMED.match(str(u)))
+    parts = [", ".join(named)] if named else []
+    if places:
+        span = (f"column {places[0]}" if len(places) == 1 else
+                f"columns {places[0]}-{places[-1]}" if places[-1] - places[0] == len(places) - 1
+                else "columns " + ", ".join(map(str, places)))
+        parts.append(f"{len(places)} column{'s' if len(places) > 1 else ''} without a header "
+                     f"({span}: trailing separators of a spreadsheet export?)")
+    return f"{file_name}: columns not used: " + "; ".join(parts)

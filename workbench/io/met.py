@@ -16,9 +16,9 @@ import xarray as xr
 from ..errors import InputError, suggest
 from . import metchecks, methours
 from .metclock import add_clock_notes
-from .common import check_sites, check_time_zones, join_reasons, unit_error
+from .common import check_sites, check_time_zones, join_reasons, unit_error, unused_note
 from .ledger import Ledger
-from .readbytes import record_whole
+from .readbytes import changed_while_read, record_whole
 from .table import RawTable
 
 from .metvars import _UNITS_OUT, HOUR, MET_VARIABLES, convert_met  # noqa: F401 (re-exported)
@@ -116,7 +116,7 @@ def read_met(path, catalogue):
                              methours.kept_on_utc(measured, clock)))
     unknown = tab.unknown_columns(set(MET_VARIABLES) | {"site", "time"})
     if unknown:
-        ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
+        ledger.notes.append(unused_note(tab.path.name, unknown))
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
     if tab.end_of_day_note():
@@ -174,7 +174,8 @@ def _assemble(values, sites, t, lines, path, catalogue, raw_units, empty_reason)
     empty = np.ones(n, bool)
     for v in values.values():
         empty &= np.isnan(v)
-    reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, raw_units)
+    reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, raw_units,
+                                               missing="no value")
     reasons = np.where(empty, join_reasons([reasons, np.full(n, empty_reason, object)]), reasons)
     ledger = Ledger.for_many_rows(path, lines, sites, reasons, empty)
     keep = ~empty
@@ -205,7 +206,7 @@ def _read_met_netcdf(path: Path, catalogue):
     if not path.exists():
         raise InputError("file not found", file=path, expected="an existing file")
     _needs_hdf5_engine(path)
-    record_whole(path)          # read lazily by xarray: hashed just before it is opened
+    digest = record_whole(path)   # read lazily by xarray: hashed before it is opened
     try:
         raw = xr.open_dataset(path)
     except Exception as exc:  # many engines, many error types
@@ -215,7 +216,17 @@ def _read_met_netcdf(path: Path, catalogue):
         raise InputError(f"cannot open NetCDF ({type(exc).__name__}: {first}){hint}", file=path,
                          expected="a NetCDF file") from None
     with raw:
-        return _netcdf_body(raw, path, catalogue)
+        out = _netcdf_body(raw, path, catalogue)
+    _same_after_read(path, digest)      # and after the last read: else refused
+    return out
+
+
+def _same_after_read(path, digest):
+    """Raise when a lazily read met file's content differs from the one hashed before
+    it was opened (:func:`workbench.io.readbytes.changed_while_read`)."""
+    err = changed_while_read(path, digest)
+    if err is not None:
+        raise err
 
 
 def _needs_hdf5_engine(path):
@@ -371,7 +382,8 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
         empty = np.ones(len(sites), bool)
         for v in values.values():
             empty &= np.isnan(v)
-        reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, raw_units)
+        reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, raw_units,
+                                                   missing="no value")
         reasons = np.asarray(reasons, dtype=object)
         if empty.any():                     # joined on the empty records only
             reasons[empty] = join_reasons([reasons[empty], np.full(
@@ -454,9 +466,9 @@ def read_met_zarr(path, catalogue):
     from .metzarr import plan, site_major_copy
     from .zarrstore import open_zarr
     path = Path(path)
+    # read lazily by zarr: hashed just before it is opened, and again after the last read
+    digest = record_whole(path) if path.exists() else None
     raw, notes = open_zarr(path, "met")
-    if path.exists():           # read lazily by zarr: hashed just before it is read
-        record_whole(path)
     with raw:
         squeezed, _ = _netcdf_layout(raw, path, catalogue)
         names = list(_netcdf_units(raw, path))
@@ -472,6 +484,7 @@ def read_met_zarr(path, catalogue):
                 ds, ledger = _netcdf_body(copy, path, catalogue)
             finally:
                 shutil.rmtree(folder, ignore_errors=True)
+    _same_after_read(path, digest)
     if squeezed:
         ledger.notes.append(f"{path.name}: single-level dimension dropped from "
                             + ", ".join(squeezed))

@@ -17,6 +17,9 @@ from ..units import written_in
 from .common import join_reasons
 from .metcolumns import column_checks
 from .metvars import MET_VARIABLES, convert_met
+
+#: The variables every met row needs: an empty cell of one flags its row.
+REQUIRED_NAMES = tuple(k for k, (_, req, _) in MET_VARIABLES.items() if req)
 from .plausible import SENTINELS
 
 #: Hard ranges (internal units) beyond which a value is masked (common practice).
@@ -220,8 +223,16 @@ def _celsius_as_f(temp, med, frame, t, per_site, mask, unit):
          "41 degF in a whole year at a site below 50 deg latitude and 1000 m (masked)")
 
 
-def run_row_checks(values, sites, t, catalogue, raw_units):
+def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None = None):
     """Run the per-row and per-site checks.
+
+    Parameters
+    ----------
+    missing : str, optional
+        How a missing value is written in the file (``"no value"``): a row
+        holding some values but not one of :data:`REQUIRED_NAMES` is flagged
+        ``"<variable> missing (<missing>)"``.  None (the grid, whose missing hours have
+        a note of their own): not flagged.
 
     Returns
     -------
@@ -258,6 +269,16 @@ def run_row_checks(values, sites, t, catalogue, raw_units):
         if sel.any():
             parts.append(rows(sel, reason))
 
+    # an empty cell of a required variable in a row that holds other values: a gap of
+    # that variable at that hour, flagged (a row of empty cells is rejected elsewhere)
+    if missing is not None:
+        some = np.zeros(n, bool)
+        for v in values.values():
+            some |= ~np.isnan(v)
+        for name in REQUIRED_NAMES:
+            if name in values:
+                flag(np.isnan(values[name]) & some,
+                     f"{name.replace('_', ' ')} missing ({missing})")
     # missing-value codes first: one -999 or 9999 must not make a site look mis-scaled
     coded, coded_reasons = missing_codes(values, raw_units)
     for name, sel in coded.items():
@@ -399,8 +420,37 @@ def describe_gaps(met) -> list[str]:
         starts, ends = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
         k = int(np.argmax(ends - starts))
         notes.append(f"met {site}: {n_miss} missing hours in {len(starts)} gaps; longest "
-                     f"{int(ends[k] - starts[k])} h from {str(times[a + starts[k]])[:16]} UTC")
+                     f"{int(ends[k] - starts[k])} h from {str(times[a + starts[k]])[:16]} UTC"
+                     + clock_forward_hint(times[a + starts[(ends - starts) == 1]]))
     return notes
+
+
+def clock_forward_hint(single) -> str:
+    """A hint when a gap of one hour falls in a month of clock changes: the hour a clock
+    skips when it goes forward to summer time, after which a naive label is an hour
+    late (the twin of :func:`workbench.io.methours.clock_change_hint`); "" otherwise.
+
+    Parameters
+    ----------
+    single : ndarray of datetime64
+        The missing hour of each one-hour gap (UTC hour ends).
+
+    >>> clock_forward_hint(np.array(["2020-03-29T01:00"], "datetime64[ns]"))[:52]
+    '; 1 h missing at 2020-03-29T01:00 UTC, in a month of'
+    >>> clock_forward_hint(np.array(["2020-07-05T01:00"], "datetime64[ns]"))
+    ''
+    """
+    from .methours import CLOCK_BACK_MONTHS
+    single = np.asarray(single, "datetime64[ns]")
+    months = single.astype("datetime64[M]").astype(int) % 12 + 1
+    hit = single[np.isin(months, CLOCK_BACK_MONTHS)]
+    if not len(hit):
+        return ""
+    more = f" (and {len(hit) - 1} more)" if len(hit) > 1 else ""
+    return (f"; 1 h missing at {str(hit[0])[:16]} UTC{more}, in a month of clock changes: "
+            "the clock going forward to summer time? Then every later label is an hour "
+            "late; write the times in the site's standard time (utc_offset_h) or with "
+            "their offset, e.g. 01:00+01:00 then 03:00+02:00")
 
 
 def gauge_comparison(met, samples, low=0.5, high=2.0, min_depth_mm=2.0):

@@ -68,7 +68,7 @@ from ..threads import map_ordered, threads_here
 from ..units import parse_header
 from . import metchecks, methours, metlocate
 from .metclock import add_clock_notes
-from .common import join_reasons, release_free_memory
+from .common import join_reasons, release_free_memory, unused_note
 from .ledger import CodedRows, Ledger
 from .linechunks import (Source, gunzip, header_cells, line_cells, normalise, parsed_cells,
                          plain, plain_rows, read_head)
@@ -77,7 +77,7 @@ from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
 from .readbytes import HashingFile
 from .table import (_OFFSET, SAMPLE_MISSING_TEXTS, YEARS, end_of_day, end_of_day_note,
-                    parse_iso)
+                    fields_error, parse_iso)
 
 #: Bytes of text parsed at a time (by each thread; see :func:`workbench.threads.map_ordered`).
 CHUNK_BYTES = 8 << 20
@@ -250,9 +250,8 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
         if not ok:
             return None
         if ("fields",) in firsts:    # the line reader's parser refuses the file first
-            raise InputError("malformed CSV row (wrong number of fields)", file=path,
-                             line=firsts[("fields",)][0],
-                             expected=f"{len(names)} fields as in the header")
+            line = firsts[("fields",)][0]
+            raise fields_error(path, line, len(names), _line_cells(path, line))
         got = None
         zones = None
         if not any(k[0] in ("site", "time") for k in firsts):   # else raised before
@@ -411,6 +410,24 @@ class _ChunkParser:
                                          self.label, self.hour)
 
 
+def _line_cells(path, line: int):
+    """The cells of file line `line` (1-based) of a (gzipped) CSV, read up to it, for
+    the hint of a malformed row (:func:`workbench.io.table.fields_error`); None when it
+    cannot be read."""
+    import csv
+    import gzip
+    import itertools
+    try:
+        with open(path, "rb") as f:
+            gz = f.read(2) == b"\x1f\x8b"
+        opener = gzip.open if gz else open
+        with opener(path, "rt", encoding="utf-8-sig", errors="replace", newline="") as f:
+            text = next(itertools.islice(f, line - 1, None), None)
+        return None if text is None else next(csv.reader([text]), None)
+    except (OSError, EOFError, ValueError):
+        return None
+
+
 def _parse(source, rows, parser, chunk_bytes, size_hint):
     """Parse the data rows chunk by chunk into `rows`, in file order, the chunks on up to
     :func:`~workbench.threads.threads_here` threads.
@@ -495,7 +512,8 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour):
         empty = np.ones(len(grp), bool)
         for v in sub.values():
             empty &= np.isnan(v)
-        reasons, sub = metchecks.run_row_checks(sub, ids[st], tt, catalogue, units)
+        reasons, sub = metchecks.run_row_checks(sub, ids[st], tt, catalogue, units,
+                                                   missing="no value")
         reasons = np.asarray(reasons, dtype=object)
         if empty.any():                     # joined on the empty rows only (the same text)
             reasons[empty] = join_reasons([reasons[empty], np.full(int(empty.sum()),
@@ -544,7 +562,7 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour):
     add_clock_notes(ds, ledger, catalogue, path, CHECK_ROWS)   # after the gaps, as the line reader
     unknown = [raw_headers[c] for c in raw_headers if c not in set(variables) | {"site", "time"}]
     if unknown:
-        ledger.notes.append(f"{path.name}: columns not used: {', '.join(unknown)}")
+        ledger.notes.append(unused_note(path.name, unknown))
     note = metlocate.missing_note(path, raw_headers, rows.missing, 0)   # file lines kept
     if note:
         ledger.notes.append(note)

@@ -100,7 +100,45 @@ def file_sha256(path) -> str:
 def record_whole(path) -> str:
     """Record the SHA-256 of `path` as it is now, for a reader that opens the file
     itself (NetCDF, zarr: read lazily by xarray, not as one stream of bytes): hashed
-    just before it is read, not from the bytes parsed."""
+    just before it is read, not from the bytes parsed.  The reader calls
+    :func:`check_unchanged` with the digest after its last read: the same digest before
+    the first read and after the last one is what makes the recorded checksum that of
+    the content the numbers come from."""
     digest = file_sha256(path)
     record(path, digest)
     return digest
+
+
+def changed_while_read(path, digest, error=None):
+    """The error for `path` (hashed as `digest` before it was opened) when its content
+    differs after the last read, else None.
+
+    A file read lazily (NetCDF, zarr) is read in pieces, by xarray or zarr, between the
+    two hashes; an edit saved meanwhile may have given some pieces from the old content
+    and some from the new one, so no checksum names the content the numbers come from
+    and the numbers cannot be kept.  (An edit undone before the last read is not seen:
+    the numbers then may mix two contents whose end is the recorded one.)
+
+    Parameters
+    ----------
+    path : Path
+    digest : str or None
+        SHA-256 (hex) before the first read (None: not hashed, nothing to compare).
+    error : type, optional
+        The exception class (default :class:`workbench.errors.InputError`).
+    """
+    from ..errors import InputError
+    if digest is None:
+        return None
+    try:
+        now = file_sha256(path)
+    except OSError:
+        now = "unreadable"
+    if now == digest:
+        return None
+    return (error or InputError)(
+        "changed while it was read", file=path,
+        value=f"sha256 {digest[:12]}... before the first read, "
+        + (f"{now[:12]}... after the last" if now != "unreadable" else "unreadable after the last"),
+        expected="a file left as it is while the workbench reads it (it is read in pieces, "
+        "so the numbers may mix the two contents); run again once it is saved")

@@ -16,10 +16,10 @@ from .. import flags as _flags
 from .. import species as _species
 from ..constants import GAS_CONSTANT
 from ..errors import InputError, suggest
-from ..units import Q_, convert_plain, to_amount
+from ..units import Q_, convert_plain, parse_header, to_amount
 from . import plausible as _plausible
 from .common import (check_intervals, check_overlaps, check_sites, check_time_zones,
-                     duplicate_rows, join_reasons, unit_error)
+                     duplicate_rows, join_reasons, unit_error, unused_note)
 from .gaugerows import check_gauge_sampler
 from .ledger import Ledger
 from .samplerids import check_spellings, typo_notes
@@ -369,7 +369,7 @@ def read_precipitation(path, catalogue, flag_map=None):
     if repeat_note:
         ledger.notes.append(repeat_note)
     if unknown:
-        ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
+        ledger.notes.append(unused_note(tab.path.name, unknown))
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
     if tab.end_of_day_note():
@@ -399,21 +399,78 @@ def read_precipitation(path, catalogue, flag_map=None):
         dvars[f"{sp}_censored"] = ("sample", c[keep])
         dvars[f"{sp}_detection_limit"] = ("sample", dl[keep], {"units": "mol m-3"})
     ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path)})
-    ledger.notes.extend(tab.unit_switch_notes + _unit_slips(tab, ds, ion_cols))
+    ledger.notes.extend(tab.unit_switch_notes + _unit_slips(tab, ds, ion_cols, keep=keep))
     ledger.notes.extend(typo_notes(tab.path.name, sites[keep], samplers[keep], tab.lines[keep]))
     return ds, ledger
 
 
-def _unit_slips(tab, ds, ion_cols, options=None) -> list[str]:
-    """Notes on a likely unit slip in a column (:func:`workbench.wet.unitslip.unit_slip_notes`)."""
+def unit_segments(tab, cols, keep) -> list:
+    """The rows of a table by the units their cells were written in.
+
+    A column with a unit switch (:mod:`workbench.io.unitswitch`) holds cells of two or
+    more units; a unit-slip hint about some of its rows must name the unit those rows
+    were written in, not the first column's.  The kept rows are split by the
+    combination of units of every column of `cols` (one part for a file without a
+    switch), each part with the header and unit of each column in it.
+
+    Parameters
+    ----------
+    tab : RawTable
+    cols : dict
+        Key (species) -> column name in `tab`.
+    keep : ndarray of bool
+        The table's rows that are in the Dataset (in order).
+
+    Returns
+    -------
+    list of (ndarray of int or None, dict)
+        Positions in the Dataset of the part's rows (None: every row, no switch) and
+        key -> (header as typed, unit as typed, element basis or None).
+    """
+    keep = np.asarray(keep, bool)
+    first = {sp: (tab.raw_headers[name], tab.unit_of(name), tab.headers[name].basis)
+             for sp, name in cols.items()}
+    seg, choices = {}, {}
+    for sp, name in cols.items():
+        later = tab.switched.get(name, ())
+        if not later:
+            continue
+        k = np.zeros(len(keep), int)
+        for j, (col, mask) in enumerate(later, start=1):
+            k[np.asarray(mask, bool)] = j
+        seg[sp] = k[keep]
+        choices[sp] = [first[sp]] + [(col, parse_header(col).unit, parse_header(col).basis)
+                                     for col, _ in later]
+    if not seg:
+        return [(None, first)]
+    code = np.zeros(int(keep.sum()), np.int64)
+    for sp in seg:
+        code = code * len(choices[sp]) + seg[sp]
+    parts = []
+    for c in np.unique(code):
+        idx = np.flatnonzero(code == c)
+        units = dict(first)
+        for sp in seg:
+            units[sp] = choices[sp][int(seg[sp][idx[0]])]
+        parts.append((idx, units))
+    return parts
+
+
+def _unit_slips(tab, ds, ion_cols, options=None, keep=None) -> list[str]:
+    """Notes on a likely unit slip in a column (:func:`workbench.wet.unitslip.unit_slip_notes`),
+    judged on the rows of each unit of a column with a unit switch apart
+    (:func:`unit_segments`): each note names the unit its rows were written in."""
     from ..wet.options import WetOptions
     from ..wet.unitslip import unit_slip_notes
-    units = {sp: (tab.raw_headers[name], tab.unit_of(name), tab.headers[name].basis)
-             for sp, name in ion_cols.items()}
-    for col in ("gauge_depth", "sample_depth"):
-        if tab.has(col):
-            units[col] = (tab.raw_headers[col], tab.unit_of(col), None)
-    return unit_slip_notes(ds, units, tab.path.name, options or WetOptions())
+    depth = {col: (tab.raw_headers[col], tab.unit_of(col), None)
+             for col in ("gauge_depth", "sample_depth") if tab.has(col)}
+    keep = np.ones(ds.sizes["sample"], bool) if keep is None else keep
+    notes = []
+    for idx, units in unit_segments(tab, ion_cols, keep):
+        part = ds if idx is None else ds.isel(sample=idx)
+        notes += unit_slip_notes(part, {**units, **depth}, tab.path.name,
+                                 options or WetOptions())
+    return notes
 
 
 _REF = re.compile(r"^\s*(?P<t>[-+\d.eE]+)\s*(?P<tu>degC|K|°C)\s*[,;]\s*(?P<p>[-+\d.eE]+)\s*(?P<pu>Pa|hPa|kPa|atm|mbar)\s*$")
@@ -533,7 +590,7 @@ def read_air(path, catalogue, reference_state=None):
     if repeat_note:
         ledger.notes.append(repeat_note)
     if unknown:
-        ledger.notes.append(f"{tab.path.name}: columns not used: {', '.join(unknown)}")
+        ledger.notes.append(unused_note(tab.path.name, unknown))
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
     if tab.end_of_day_note():
@@ -563,14 +620,17 @@ def read_air(path, catalogue, reference_state=None):
             dvars[f"{sp}_method"] = ("period", methods[sp][keep].astype(str))
     ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path),
                                   "reference_state": str(ref_text) if needs_ref else "none needed"})
-    ledger.notes.extend(tab.unit_switch_notes + _air_slips(tab, ds, cols))
+    ledger.notes.extend(tab.unit_switch_notes + _air_slips(tab, ds, cols, keep))
     ledger.notes.extend(typo_notes(tab.path.name, sites[keep], samplers[keep], tab.lines[keep]))
     return ds, ledger
 
 
-def _air_slips(tab, ds, cols) -> list[str]:
-    """Notes on a likely unit slip that stays in range (:mod:`workbench.io.airslip`)."""
+def _air_slips(tab, ds, cols, keep) -> list[str]:
+    """Notes on a likely unit slip that stays in range (:mod:`workbench.io.airslip`), on
+    the rows of each unit of a column with a unit switch apart (:func:`unit_segments`)."""
     from .airslip import air_slip_notes
-    units = {sp: (tab.raw_headers[name], tab.unit_of(name), tab.headers[name].basis)
-             for sp, name in cols.items()}
-    return air_slip_notes(ds, units, tab.path.name)
+    notes = []
+    for idx, units in unit_segments(tab, cols, keep):
+        part = ds if idx is None else ds.isel(period=idx)
+        notes += air_slip_notes(part, units, tab.path.name)
+    return notes

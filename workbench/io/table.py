@@ -180,6 +180,31 @@ def end_of_day_note(file_name: str, columns, lines) -> str:
             f"{len(v)} row{'s' * (len(v) != 1)} ({compact_lines(v)})")
 
 
+#: Two digits either side of a comma: a decimal comma (1,5) in a comma-separated file.
+_DECIMAL_COMMA = re.compile(r"^[-+]?\d+$")
+
+
+def fields_error(path, line, n_head, cells=None) -> InputError:
+    """The error of a CSV row with another number of fields than the header; with a hint
+    when it has more and two neighbouring cells read as the two halves of a number
+    with a decimal comma (``1,5``: a spreadsheet of a decimal-comma locale exporting
+    with commas as separators).
+
+    >>> str(fields_error("p.csv", 3, 3, ["alpha", "1", "5", "2"]))[:95]
+    "p.csv, line 3: malformed CSV row (wrong number of fields; a decimal comma, as in '1,5'? write '"
+    """
+    hint = ""
+    if cells is not None and len(cells) > n_head:
+        c = [str(x).strip() for x in cells]
+        pair = next((f"{a},{b}" for a, b in zip(c, c[1:])
+                     if _DECIMAL_COMMA.match(a) and b.isdigit()), None)
+        if pair is not None:
+            hint = (f"; a decimal comma, as in {pair!r}? write {pair.replace(',', '.')!r}, or "
+                    "export as 'CSV UTF-8, comma-delimited' with a decimal point")
+    return InputError(f"malformed CSV row (wrong number of fields{hint})", file=path,
+                      line=line, expected=f"{n_head} fields as in the header")
+
+
 @dataclass
 class RawTable:
     """A CSV file read as text, with its metadata and parsed headers.
@@ -268,9 +293,9 @@ class RawTable:
                                  expected='quotes in pairs ("...") around a cell') from None
             rows = csv.reader(io.StringIO(body))
             n_head = len(next(rows))
-            line = next((k + 2 + n_meta for k, r in enumerate(rows) if r and len(r) != n_head), None)
-            raise InputError("malformed CSV row (wrong number of fields)", file=path,
-                             line=line, expected=f"{n_head} fields as in the header") from None
+            bad = next(((k + 2 + n_meta, r) for k, r in enumerate(rows)
+                        if r and len(r) != n_head), (None, None))
+            raise fields_error(path, bad[0], n_head, bad[1]) from None
         lines = np.arange(len(df)) + n_meta + 2
         data = body[body.find("\n") + 1:] if "\n" in body else ""
         if '"' in data or _BLANK.search(data):            # else no cell has any to strip
