@@ -223,23 +223,25 @@ def dry_ratio(pieces, vd_factor, air, vd_fill, class_factor=None):
     n, n_p, n_r = a.shape
     flat = a.reshape(n, n_p * n_r)
     total = flat.sum(0)
-    if class_factor:
-        # sum over the classes of F_c times the part of the samples of class c
-        out = np.zeros((air.shape[0], n_p * n_r))
-        for c in np.unique(pieces.klass.astype(str)):
-            m = (pieces.klass.astype(str) == c)[:, None, :]              # (n, 1, R)
-            ac = (a * m).reshape(n, -1)
-            part = (ac.sum(0) + (air - 1.0) @ ac
-                    + (air * vd_fill) @ (pieces.filled * a * m).reshape(n, -1))
-            f = class_factor.get(c, vd_factor)                           # (D, P)
-            out += np.repeat(f, n_r, axis=1) * part
-        ratio = np.maximum(_safe_ratio(out, total), 0.0)
-        return ratio.reshape(-1, n_p, n_r).transpose(0, 2, 1)
     dev = (air - 1.0) @ flat + (air * vd_fill) @ (pieces.filled * a).reshape(n, -1)
     # >= 0 as every factor is (1 - sum/sum can round to -1e-19 when every sample's
     # factor is cut to 0, which would read as a net emission)
-    ratio = np.maximum(1.0 + _safe_ratio(dev, total), 0.0)
-    return (vd_factor[:, :, None] * ratio.reshape(-1, n_p, n_r)).transpose(0, 2, 1)
+    ratio = np.maximum(1.0 + _safe_ratio(dev, total), 0.0).reshape(-1, n_p, n_r)
+    if not class_factor:
+        return (vd_factor[:, :, None] * ratio).transpose(0, 2, 1)
+    # a factor per receptor, of its class; a receptor whose class changes among its
+    # samples (a site's own surface with a land-use history) sums F_c times the part of
+    # the samples of class c
+    klass = pieces.klass.astype(str)
+    out = np.stack([class_factor.get(klass[0, r], vd_factor) for r in range(n_r)], -1) * ratio
+    for r in np.flatnonzero(~(klass == klass[:1]).all(0)):
+        acc = np.zeros((air.shape[0], n_p))
+        for c in np.unique(klass[:, r]):
+            ac = a[:, :, r] * (klass[:, r] == c)[:, None]                  # (n, P)
+            part = ac.sum(0) + (air - 1.0) @ ac + (air * vd_fill) @ (pieces.filled[:, :, r] * ac)
+            acc += class_factor.get(c, vd_factor) * part
+        out[:, :, r] = np.maximum(_safe_ratio(acc, a[:, :, r].sum(0)), 0.0)
+    return out.transpose(0, 2, 1)
 
 
 def wet_ratios(wet, pwm_point, filled, gauge, depth, pconc, pwm_fill, n_periods, wanted,
