@@ -59,6 +59,12 @@ def test_a_sample_ending_on_the_change_is_the_earlier_laboratorys():
                           np.array(["2019-06-25", "2019-07-02"], NS),
                           np.array(["2019-07-02", "2019-07-09"], NS), 2019, 1)
     np.testing.assert_array_equal(got, bias[:, 0, [0, 1]])
+    # a value below detection (half the limit put in) takes no calibration bias
+    got = sample_lab_bias(bias, np.array(["2019-07-02"], NS),
+                          np.array(["2019-06-25", "2019-07-02"], NS),
+                          np.array(["2019-07-02", "2019-07-09"], NS), 2019, 1,
+                          np.array([True, False]))
+    np.testing.assert_array_equal(got, np.stack([np.ones(2), bias[:, 0, 1]], 1))
 
 
 def test_gauge_periods_are_independent_and_the_first_is_the_old_gauge():

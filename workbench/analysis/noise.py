@@ -152,17 +152,22 @@ def _per_period(opt, key, tags, instants, sd, d, n_years, year0):
     return out
 
 
-def sample_lab_bias(bias, instants, start, end, year0, n_years):
+def sample_lab_bias(bias, instants, start, end, year0, n_years, skip=None):
     """The calibration bias of each sample's laboratory [1]: (D, n) from `bias` (D, Y, L).
 
     A sample is analysed by the laboratory in force when it is collected (its end: a
     sample ending at 00:00 UTC of a change's date is the earlier laboratory's); its
-    year (for ``"each_year"``) is that of its middle, within the run's years."""
+    year (for ``"each_year"``) is that of its middle, within the run's years.  A sample
+    flagged in `skip` (n,) gets 1 (a value below detection: no calibration acts on
+    half a limit)."""
     t1 = np.asarray(end, "datetime64[ns]")
     lab = np.searchsorted(np.asarray(instants, "datetime64[ns]"), t1, side="left")
     t0 = np.asarray(start, "datetime64[ns]")
     mid = t0 + (t1 - t0) // 2
     yi = np.clip(mid.astype("datetime64[Y]").astype(int) + 1970 - int(year0), 0, n_years - 1)
+    if skip is not None and np.any(skip):
+        bias = np.concatenate([bias, np.ones(bias.shape[:2] + (1,))], -1)
+        lab = np.where(skip, bias.shape[2] - 1, lab)
     return bias[:, yi, lab]
 
 
@@ -305,9 +310,8 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
                 # on half a detection limit put in for a value below it)
                 lab_precip[ion] = _per_period(opt, key, [LAB_BIAS] + _stream_key(("precip", ion)),
                                               lab_changes, sd_lab, d, n_years, year0)
-                bias = sample_lab_bias(lab_precip[ion], lab_changes, wet.start, wet.end,
-                                       year0, n_years)
-                pconc[ion] = pconc[ion] * np.where(cens[None, :], 1.0, bias)
+                pconc[ion] *= sample_lab_bias(lab_precip[ion], lab_changes, wet.start,
+                                              wet.end, year0, n_years, cens)
     air, vd_fill = {}, {}
     for sp in DRY_SPECIES:
         if sp not in layer_site.dry:
@@ -322,15 +326,18 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
             # the laboratory's calibration bias of each sample's own species (a pair
             # member's rows moved into another species keep their member's bias)
             member = np.array([str(i[0]) if i else sp for i in rows.ident], object)
-            bias = np.ones_like(air[sp])
+            cens = np.asarray(rows.censored, bool)
             for m in sorted(set(member)):
                 if m not in lab_air:
                     lab_air[m] = _per_period(opt, key, [LAB_BIAS] + _stream_key(("air", m)),
                                              lab_changes, sd_lab, d, n_years, year0)
                 sel = np.flatnonzero(member == m)
-                bias[:, sel] = sample_lab_bias(lab_air[m], lab_changes, rows.start[sel],
-                                               rows.end[sel], year0, n_years)
-            air[sp] = air[sp] * np.where(np.asarray(rows.censored, bool)[None, :], 1.0, bias)
+                b = sample_lab_bias(lab_air[m], lab_changes, rows.start[sel], rows.end[sel],
+                                    year0, n_years, cens[sel])
+                if len(sel) == len(member):
+                    air[sp] *= b
+                else:
+                    air[sp][:, sel] *= b
         # a fill error acts on the hours not modelled only: none drawn without them
         sd_fill = np.where((rows.filled > 0).any(axis=(1, 2)), opt.vd_fill_rel_sd, 0.0)
         vd_fill[sp] = keyed_normal_factor(key, f"vd_fill:{sp}", rows.ident, sd_fill, d) - 1.0
