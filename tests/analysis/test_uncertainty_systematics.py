@@ -65,6 +65,10 @@ def test_a_sample_ending_on_the_change_is_the_earlier_laboratorys():
                           np.array(["2019-07-02", "2019-07-09"], NS), 2019, 1,
                           np.array([True, False]))
     np.testing.assert_array_equal(got, np.stack([np.ones(2), bias[:, 0, 1]], 1))
+    # one laboratory for every sample: its column, broadcast
+    got = sample_lab_bias(bias, np.array([], NS), np.array(["2019-06-25", "2019-07-02"], NS),
+                          np.array(["2019-07-02", "2019-07-09"], NS), 2019, 1)
+    np.testing.assert_array_equal(np.broadcast_to(got, (2, 2)), bias[:, 0, [0, 0]])
 
 
 def test_gauge_periods_are_independent_and_the_first_is_the_old_gauge():

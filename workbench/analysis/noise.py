@@ -153,7 +153,8 @@ def _per_period(opt, key, tags, instants, sd, d, n_years, year0):
 
 
 def sample_lab_bias(bias, instants, start, end, year0, n_years, skip=None):
-    """The calibration bias of each sample's laboratory [1]: (D, n) from `bias` (D, Y, L).
+    """The calibration bias of each sample's laboratory [1]: (D, n) from `bias` (D, Y, L)
+    ((D, 1) when every sample has the same laboratory and year).
 
     A sample is analysed by the laboratory in force when it is collected (its end: a
     sample ending at 00:00 UTC of a change's date is the earlier laboratory's); its
@@ -168,6 +169,8 @@ def sample_lab_bias(bias, instants, start, end, year0, n_years, skip=None):
     if skip is not None and np.any(skip):
         bias = np.concatenate([bias, np.ones(bias.shape[:2] + (1,))], -1)
         lab = np.where(skip, bias.shape[2] - 1, lab)
+    if len(lab) and (lab == lab[0]).all() and (yi == yi[0]).all():
+        return bias[:, yi[0], lab[0], None]            # one laboratory-year: (D, 1)
     return bias[:, yi, lab]
 
 
