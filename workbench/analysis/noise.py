@@ -137,18 +137,21 @@ def _per_period(opt, key, tags, instants, sd, d, n_years, year0):
     [1].  Each period's stream is named by `key`, `tags` and the period's first
     instant (0 for the first), so that it does not depend on the run's years."""
     firsts = [0] + [int(t) for t in np.asarray(instants, "datetime64[ns]").astype(np.int64)]
-    out = np.ones((d, n_years, len(firsts)))
+    shared = getattr(opt, "systematic_errors", "shared") == "shared"
     if not sd > 0:
-        return out
-    for g, t in enumerate(firsts):
-        if getattr(opt, "systematic_errors", "shared") == "shared":
+        return np.broadcast_to(np.ones((d, 1, len(firsts))), (d, n_years, len(firsts)))
+    if shared:                       # drawn once, a read-only view over the years
+        out = np.empty((d, 1, len(firsts)))
+        for g, t in enumerate(firsts):
             rng = np.random.default_rng(key + [RECORD_STREAM] + tags + _stream_key((t,)))
-            out[:, :, g] = _normal_factor(rng, sd, (d, 1))
-        else:                                  # a few years: one stream per year
-            for y in range(n_years):
-                rng = np.random.default_rng(key + [YEAR_STREAM, int(year0) + y] + tags
-                                            + _stream_key((t,)))
-                out[:, y, g] = _normal_factor(rng, sd, (d,))
+            out[:, 0, g] = _normal_factor(rng, sd, (d,))
+        return np.broadcast_to(out, (d, n_years, len(firsts)))
+    out = np.ones((d, n_years, len(firsts)))
+    for g, t in enumerate(firsts):             # a few years: one stream per year
+        for y in range(n_years):
+            rng = np.random.default_rng(key + [YEAR_STREAM, int(year0) + y] + tags
+                                        + _stream_key((t,)))
+            out[:, y, g] = _normal_factor(rng, sd, (d,))
     return out
 
 
@@ -284,17 +287,20 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
     if kappa > 0:
         classes = {c for rows in layer_site.dry.values() if rows.klass is not None
                    for c in np.unique(rows.klass.astype(str))}
+        # shared by the years: computed on one year, a read-only view over the others
+        one = 1 if getattr(opt, "systematic_errors", "shared") == "shared" else n_years
         for c, z_c in _class_parts(seed_key, key, opt, classes, d, n_years, year0, k).items():
-            vd_class[c] = np.exp(ln_gsd * (np.sqrt(rho) * z_shared + np.sqrt(1 - rho) * (
-                np.sqrt(1 - kappa) * z_own + np.sqrt(kappa) * z_c)))
+            f = np.exp(ln_gsd * (np.sqrt(rho) * z_shared[:, :one] + np.sqrt(1 - rho) * (
+                np.sqrt(1 - kappa) * z_own[:, :one] + np.sqrt(kappa) * z_c[:, :one])))
+            vd_class[c] = np.broadcast_to(f, (d, n_years, k))
     # a gauge period after each declared gauge change draws its own catch
     g_changes = getattr(layer_site, "gauge_changes", np.array([], "datetime64[ns]"))
-    gauge_periods = np.empty((d, n_years, len(g_changes) + 1))
-    gauge_periods[:, :, 0] = gauge
     if len(g_changes):
         later = _per_period(opt, key, [GAUGE_PERIOD], g_changes, opt.gauge_catch_rel_sd, d,
                             n_years, year0)
-        gauge_periods[:, :, 1:] = later[:, :, 1:]
+        gauge_periods = np.concatenate([np.asarray(gauge)[:, :, None], later[:, :, 1:]], -1)
+    else:
+        gauge_periods = np.asarray(gauge)[:, :, None]      # a view: the one gauge
     wet = layer_site.wet
     depth, pconc, pwm_fill = None, {}, {}
     idents = wet.ident if wet is not None else []
