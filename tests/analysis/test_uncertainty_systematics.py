@@ -102,6 +102,7 @@ def test_the_gauge_catch_of_a_period_under_two_gauges():
                      {"SO4"}, gauge_piece=piece)["SO4"]
     g = nz.gauge_periods[:, 0]
     np.testing.assert_allclose(r[:, 0], g.mean(1), rtol=1e-12)
+    np.testing.assert_allclose(piece[0] @ piece[1], g, rtol=1e-12)   # sample by sample
 
 
 def test_laboratory_bias_shared_by_its_samples_and_apart_for_air():

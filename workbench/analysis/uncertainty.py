@@ -262,9 +262,10 @@ def wet_ratios(wet, pwm_point, filled, gauge, depth, pconc, pwm_fill, n_periods,
         ion -> (D, n_samples) and (D, P) factors [1].
     wanted : iterable of str
         Ions (``SO4``, ``NO3``, ``NH4``) and ``nssSO4``.
-    gauge_piece : ndarray (D, m), optional
-        The gauge catch of each (sample, period) piece when the site changed its gauge
-        [1]: it multiplies the piece's depth (in the precipitation and in the PWM's
+    gauge_piece : tuple of ndarray, optional
+        ``(catch (D, Y G), onto (Y G, m))``: their product is the gauge catch of each
+        (sample, period) piece when the site changed its gauge [1]
+        (:func:`_gauge_by_piece`); it multiplies the piece's depth (in the precipitation and in the PWM's
         weights alike), so a period under two gauges takes each one's catch by the
         share of its depth under it; `gauge` is then used for a period without
         samples only.  None: one catch per period (`gauge`).
@@ -272,9 +273,12 @@ def wet_ratios(wet, pwm_point, filled, gauge, depth, pconc, pwm_fill, n_periods,
     onehot = np.zeros((len(wet.sample), n_periods))
     onehot[np.arange(len(wet.sample)), wet.period] = 1.0
     w = wet.weight[:, None] * onehot                                 # (m, P) [mm]
-    eps = depth[:, wet.sample]                                       # (D, m)
+    eps = depth[:, wet.sample]                                       # (D, m), a copy
     if gauge_piece is not None:
-        eps = eps * gauge_piece
+        # (gauge catch per draw and year-gauge (D, Y G), onto the pieces (Y G, m)):
+        # made here and multiplied in place, so that no second (D, m) array stays
+        g, onto = gauge_piece
+        eps *= g @ onto
     precip = np.maximum(1.0 + _safe_ratio((eps - 1.0) @ w, w.sum(0)), 0.0)
     if gauge_piece is not None:            # the catch is in the depths already
         precip = np.where(w.sum(0) > 0, precip, gauge)
@@ -353,9 +357,9 @@ def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int)
 
 def _gauge_by_piece(ls, gauge_periods, yi, ds):
     """The gauge catch of a site that changed its gauge: ((D, P) of the gauge in force at
-    the middle of each period, for a period without samples; (D, m) of each (sample,
-    period) piece, the catch of each gauge by the share of the sample's hours under
-    it).  Each piece takes the factors of its period's year (``"each_year"``)."""
+    the middle of each period, for a period without samples; the factors of each
+    (sample, period) piece as ``(catch (D, Y G), onto (Y G, m))``, whose product gives
+    each piece the catch of each gauge by the share of the sample's hours under it).  Each piece takes the factors of its period's year (``"each_year"``)."""
     from .noise import hour_shares
     wet = ls.wet
     changes = ls.gauge_changes
@@ -364,7 +368,8 @@ def _gauge_by_piece(ls, gauge_periods, yi, ds):
     m = len(wet.sample)
     onto = np.zeros((n_y, n_g, m))
     onto[yi[wet.period], :, np.arange(m)] = share[wet.sample]
-    piece = gauge_periods.reshape(gauge_periods.shape[0], -1) @ onto.reshape(n_y * n_g, m)
+    piece = (np.ascontiguousarray(gauge_periods).reshape(gauge_periods.shape[0], -1),
+             onto.reshape(n_y * n_g, m))
     p0 = np.asarray(ds["period_start"].values, "datetime64[ns]")
     p1 = np.asarray(ds["period_end"].values, "datetime64[ns]")
     g_of_p = np.searchsorted(changes, p0 + (p1 - p0) // 2, side="right")
