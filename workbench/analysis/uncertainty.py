@@ -10,8 +10,10 @@ draw is a few matrix products per site and never re-runs the engine:
 
   with :math:`A` the sampling period's contribution, :math:`F` the Vd model factor
   (log-normal, median 1, systematic: shared by every site and year, correlated among
-  species through the shared micrometeorology), :math:`\\delta` the analytical error
-  of the sample (random per sample), :math:`\\phi` the share of its deposition in the
+  species through the shared micrometeorology, with a part of its own per land-use
+  class of the receptor, ``vd_class_fraction``), :math:`\\delta` the analytical error
+  of the sample (random per sample) times its laboratory's calibration bias
+  (systematic per laboratory period and species), :math:`\\phi` the share of its deposition in the
   period that its hours without a modelled Vd carry (gap-filled, or missing) and
   :math:`\\eta` the error of the fill (random per sample);
 * wet component of ion *X*: :math:`D = \\bar C_p P_p` with, per draw,
@@ -20,8 +22,11 @@ draw is a few matrix products per site and never re-runs the engine:
             \\bar C_p = \\frac{\\sum_{i\\,valid} w_{ip} \\varepsilon_i C_i \\delta_i}
                               {\\sum_{i\\,valid} w_{ip} \\varepsilon_i}
 
-  with :math:`g` the gauge catch (systematic: shared by a site's years), :math:`\\varepsilon` the
-  depth error and :math:`\\delta` the analytical error (random per sample); a PWM
+  with :math:`g` the gauge catch (systematic: one per gauge period of a site, shared
+  by its years; a piece under two gauges by the share of its hours under each, in the
+  precipitation and the PWM's weights alike), :math:`\\varepsilon` the depth error
+  and :math:`\\delta` the analytical error (random per sample) times the
+  laboratory's calibration bias (systematic: one per ion and laboratory period); a PWM
   filled from the multi-year seasonal means gets its own error instead, and the
   non-sea-salt sulfate is recomputed from the drawn SO4 and tracer PWMs.
 
@@ -110,8 +115,8 @@ class UncertaintyOptions:
     systematic_errors : str
         How the systematic factors (Vd model factor, gauge catch) are drawn: "shared"
         (default) draws the Vd factors once for the whole run, shared by every site and
-        year (a scheme's bias repeats), and the gauge catch once per site, shared by its
-        years (the same gauge); "each_year" draws both anew for every site and calendar
+        year (a scheme's bias repeats), and the gauge catch once per gauge period of a
+        site, shared by its years (the same gauge); "each_year" draws both anew for every site and calendar
         year, as before (a span's range then narrows as 1/sqrt(years): for comparison
         only).  docs/methods_uncertainty.md, "Systematic or random".  The gauge
         periods, laboratory biases and land-use class parts below follow it alike.
