@@ -214,6 +214,14 @@ UNCERTAINTY = {
     "systematic_errors": ("our choice", "shared: a scheme's bias and a gauge's catch repeat "
                           "every year, so a span's range does not narrow with its years "
                           "(docs/methods_uncertainty.md)"),
+    "lab_bias_precip_rel_sd": ("from memory", "3 %: interlaboratory comparisons of "
+                               "precipitation chemistry, most laboratories within a few "
+                               "percent of the reference for the major ions"),
+    "lab_bias_air_rel_sd": ("from memory", "5 %: filter and denuder extracts add extraction "
+                            "and blanks to the analysis"),
+    "vd_class_fraction": ("our choice", "0.5, no published value: a class's own surface "
+                          "terms (Rc, its roughness) err apart from another class's; one "
+                          "receptor's spread kept"),
 }
 
 SENSITIVITY = {

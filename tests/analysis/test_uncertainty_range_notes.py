@@ -97,3 +97,19 @@ def test_units_of_the_quantile_columns_by_hand(run):
             tot = rows[(rows["element"] == e) & (rows["pathway"] == "total")]
             assert s.loc[0, f"{e}_total_kg_ha{q}"] == pytest.approx(
                 tot["flux_kg_ha" + q].iloc[0], rel=1e-8)
+
+
+def test_report_names_how_the_systematic_factors_were_drawn(run, tiny):
+    """The report says under the ranges how the systematic factors were drawn, beside
+    the words on what they cover: systematic_errors and the options of the laboratory
+    biases and of the land-use class part of the Vd (the report gave the first only in
+    its words on spans, the others did not exist)."""
+    import html
+    text = run["report.html"].read_text(encoding="utf-8")
+    opt = tiny[0].options["uncertainty"]
+    for words in (f'systematic_errors = "{opt.systematic_errors}"',
+                  f"lab_bias_precip_rel_sd = {opt.lab_bias_precip_rel_sd:g}",
+                  f"lab_bias_air_rel_sd = {opt.lab_bias_air_rel_sd:g}",
+                  f"vd_class_fraction = {opt.vd_class_fraction:g}", "per gauge period",
+                  "one per gauge of a site", "laboratories apart"):
+        assert html.escape(words) in text, words

@@ -104,6 +104,8 @@ depth_rel_sd = 0.0
 censored_rel_sd = 0.0
 vd_fill_rel_sd = 0.0
 pwm_fill_rel_sd = 0.0
+lab_bias_precip_rel_sd = 0.0
+lab_bias_air_rel_sd = 0.0
 {uncertainty}
 
 [uncertainty.vd_gsd]

@@ -49,6 +49,13 @@ class DryPieces:
     #: per site; under pair_split the moved-into species' rows are both members')
     ident: list              #: (n,) the identity of each row's sample: (member species,
     #: sampler id, start [ns since 1970], occurrence), see :func:`sample_identity`
+    #: (n,) start and end of each row's sample [datetime64 ns] (its laboratory period)
+    start: np.ndarray | None = None
+    end: np.ndarray | None = None
+    #: (n, R) land-use class of each row at each receptor (the class in force at the
+    #: sample's middle for a site's own surface with a declared history); None: the
+    #: receptor's name
+    klass: np.ndarray | None = None
 
 
 @dataclass
@@ -64,6 +71,10 @@ class WetPieces:
     n_samples: int
     ident: list              #: (n_samples,) the identity of each sample: (sampler id,
     #: start [ns since 1970], occurrence), see :func:`sample_identity`
+    #: (n_samples,) start and end of each sample [datetime64 ns] (its gauge and
+    #: laboratory periods)
+    start: np.ndarray | None = None
+    end: np.ndarray | None = None
 
 
 @dataclass
@@ -72,6 +83,11 @@ class SiteLayer:
     wet: WetPieces | None = None
     wet_filled: np.ndarray | None = None         #: (P,) bool, PWM from the climatology
     pwm: dict = field(default_factory=dict)      #: ion -> (P,) point PWM [mol m-3]
+    #: instants [datetime64 ns] (00:00 UTC of the date) of the site's declared gauge
+    #: and laboratory changes (``[[site.change]] what = "gauge"`` / ``"laboratory"``),
+    #: in date order: they split the record into gauge and laboratory periods
+    gauge_changes: np.ndarray = field(default_factory=lambda: np.array([], "datetime64[ns]"))
+    lab_changes: np.ndarray = field(default_factory=lambda: np.array([], "datetime64[ns]"))
 
 
 @dataclass
@@ -136,7 +152,30 @@ def period_years(periods: pd.DataFrame) -> np.ndarray:
     return np.where(year > 0, year, start).astype(int)
 
 
-def _dry_layers(rows, periods, sites, n_r, air):
+def change_instants(site, what: str) -> np.ndarray:
+    """00:00 UTC of the dates of a site's declared changes of kind `what`, in order
+    [datetime64 ns] (none for a site without a ``changes`` attribute)."""
+    dates = sorted(c.date for c in getattr(site, "changes", ()) or () if c.what == what)
+    return np.array([np.datetime64(d.isoformat(), "ns") for d in dates], "datetime64[ns]")
+
+
+def _row_classes(receptors, start, end, history):
+    """(n, R) land-use class of each sample at each receptor: the receptor's own name,
+    but on a site's own surface with a declared land-use history (``history`` the
+    ``(land_use, changes)`` of :func:`workbench.surfacehistory.land_use_history`) the
+    class in force at the middle of the sample."""
+    from ..surfacehistory import _segments
+    out = np.empty((len(start), len(receptors)), object)
+    out[:] = np.asarray(receptors, object)[None, :]
+    if history is not None and history[0] in receptors:
+        instants, classes = _segments(history[1])
+        mid = start + (end - start) // 2
+        k = np.searchsorted(instants, mid, side="right")
+        out[:, list(receptors).index(history[0])] = np.asarray(classes, object)[k]
+    return out
+
+
+def _dry_layers(rows, periods, sites, n_r, air, histories=None):
     from ..drycomponents import row_filled_deposition_share
     from ..drypairs import component_rows
     from ..dryflux import period_axes, share_to_periods
@@ -155,7 +194,7 @@ def _dry_layers(rows, periods, sites, n_r, air):
         if not parts:
             continue
         _, c_fill = rows["vd_cum"][sp]          # the Vd of `sp` in every part
-        per_row, si, filled, cens, member, sampler, start = [], [], [], [], [], [], []
+        per_row, si, filled, cens, member, sampler, start, end = ([] for _ in range(8))
         samplers = air["sampler_id"].values.astype(str)
         for name, r, factor in parts:
             *_, pr = share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"],
@@ -175,10 +214,12 @@ def _dry_layers(rows, periods, sites, n_r, air):
             member.append(np.full(len(a), name if isinstance(name, str) else name[-1]))
             sampler.append(samplers[r["air_row"]])
             start.append(np.asarray(r["start"]))
+            end.append(np.asarray(r["end"]))
         per_row, si = np.concatenate(per_row), np.concatenate(si)
         filled, cens = np.concatenate(filled), np.concatenate(cens)
         member, sampler = np.concatenate(member), np.concatenate(sampler)
-        start = np.concatenate(start)
+        start = np.concatenate(start).astype("datetime64[ns]")
+        end = np.concatenate(end).astype("datetime64[ns]")
         for k, s in enumerate(sites):
             if s not in row_sites:
                 continue
@@ -187,8 +228,12 @@ def _dry_layers(rows, periods, sites, n_r, air):
                                  & (per_row != 0).any(axis=(1, 2)))
             if not len(sel):
                 continue
+            recs = list(rows["receptors"])[:n_r]
             out[k][sp] = DryPieces(per_row[sel][:, :, :n_r], cens[sel], filled[sel], sel,
-                                   sample_identity(sampler[sel], start[sel], member[sel]))
+                                   sample_identity(sampler[sel], start[sel], member[sel]),
+                                   start[sel], end[sel],
+                                   _row_classes(recs, start[sel], end[sel],
+                                                (histories or {}).get(s)))
     return out
 
 
@@ -230,7 +275,9 @@ def _wet_layers(screened, wet, periods, wet_options, met, sites, ions):
                                 if "sampler_id" in screened.variables else np.full(len(local), ""),
                                 screened.variables["start"].values[local])
         out[k] = WetPieces(inverse, p[sel], np.where(np.isfinite(weight[sel]), weight[sel], 0.0),
-                           conc, valid, cens, len(local), ident)
+                           conc, valid, cens, len(local), ident,
+                           np.asarray(screened.variables["start"].values[local], "datetime64[ns]"),
+                           np.asarray(screened.variables["end"].values[local], "datetime64[ns]"))
     return out, fills, pwms
 
 
@@ -266,14 +313,21 @@ def linear_layer(result, study, which: str = "budget", overrides=None) -> Linear
     rows = study.dry_rows(dry_opt, bud_opt, opts.get("fixed_velocity"), overrides, receptors)
     if rows is not None and list(rows["receptors"]) != list(ds["receptor"].values):
         raise ValueError("the dry rows' receptors differ from the budget's")
-    dry = _dry_layers(rows, periods, sites, ds.sizes["receptor"], study.inputs.air)
+    from ..surfacehistory import land_use_history
+    catalogue = study.catalogue(overrides)
+    histories = {sid: (own, ch) for sid, own, ch in land_use_history(catalogue)}
+    dry = _dry_layers(rows, periods, sites, ds.sizes["receptor"], study.inputs.air, histories)
     wet = study.wet(wet_opt, periods) if result.screened is not None else None
     tracer = wet_opt.seasalt_tracer
     nss = (bud_opt.sulfate_basis == "nss" and wet is not None and "dep_nssSO4" in wet)
     ions = list(WET_IONS) + ([tracer] if nss and tracer not in WET_IONS else [])
     wet_pieces, fills, pwms = _wet_layers(result.screened, wet, periods, wet_opt,
                                           study.inputs.met, sites, ions)
-    layers = [SiteLayer(dry[k], wet_pieces[k], fills[k], pwms[k]) for k in range(len(sites))]
+    by_id = {c.id: c for c in catalogue}
+    layers = [SiteLayer(dry[k], wet_pieces[k], fills[k], pwms[k],
+                        change_instants(by_id.get(s), "gauge"),
+                        change_instants(by_id.get(s), "laboratory"))
+              for k, s in enumerate(sites)]
     wet_component = {j: ("nssSO4" if (sp == "SO4" and nss) else sp)
                      for j, (_, path, sp) in enumerate(COMPONENTS) if path == "wet"}
     return LinearLayer(ds, layers, period_years(periods), wet_component, tracer)

@@ -6,12 +6,15 @@ default) by the seed alone (Vd: a scheme's bias, shared by every site too) or by
 site (its gauge catch), or, drawn anew each year (``systematic_errors = "each_year"``),
 by the calendar year; the random errors of a sample (depth, analyses, gap-filled Vd)
 by the sample's identity (sampler id, start: :func:`.layer.sample_identity`) and what
-they are of; a filled PWM's error by its period's bounds.  So a site, a site-year and a
+they are of; a filled PWM's error by its period's bounds; a later gauge period's catch
+by the site and the instant of its change, a laboratory's calibration bias by the site,
+precipitation or air, the ion or species and its period's first instant, a land-use
+class's part of the Vd factors by the seed and the class.  So a site, a site-year and a
 sample draw the same numbers in every run that holds them (docs/methods_uncertainty.md).
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -29,6 +32,13 @@ class SiteNoise:
     sample [1] (below detection: their own spread); ``vd_fill`` species -> (D, n_rows)
     relative errors of a filled Vd; ``pwm_fill`` ion -> (D, P) factors of a filled PWM.
     Every factor is 1 (0 for ``vd_fill``) where its spread is 0.
+
+    ``gauge_periods`` (D, Y, G): the gauge catch of each gauge period of the site (split
+    at its declared gauge changes; ``gauge`` is the first); ``vd_class`` land-use class
+    -> (D, Y, K): the Vd factors of a receptor of that class when
+    ``vd_class_fraction`` > 0 (empty otherwise: every class takes ``vd``);
+    ``lab_precip`` ion and ``lab_air`` species -> (D, Y, L): the calibration bias of
+    each laboratory period (already multiplied into ``pconc`` and ``air``).
     """
 
     vd: np.ndarray
@@ -38,6 +48,10 @@ class SiteNoise:
     air: dict
     vd_fill: dict
     pwm_fill: dict
+    gauge_periods: np.ndarray | None = None
+    vd_class: dict = field(default_factory=dict)
+    lab_precip: dict = field(default_factory=dict)
+    lab_air: dict = field(default_factory=dict)
 
 
 def _normal_factor(rng, sd, shape):
@@ -69,6 +83,11 @@ def _stream_key(seed_key) -> list:
 #: (``systematic_errors = "shared"``): after the run's key (seed, no site) the Vd
 #: factors, after a site's key its gauge catch.
 YEAR_STREAM, SAMPLE_STREAM, RECORD_STREAM = 2, 3, 4
+#: Tags after RECORD_STREAM (or YEAR_STREAM, year) of the systematic factors added
+#: later: a gauge period after a change (with the change's instant), a laboratory's
+#: calibration bias (with precip/air, the ion or species and the laboratory period's
+#: first instant), a land-use class's own Vd part (with the class).
+GAUGE_PERIOD, LAB_BIAS, VD_CLASS = 5, 6, 7
 
 
 def _shared_systematic(opt, seed_key, n_draws, n_years):
@@ -89,6 +108,96 @@ def _shared_systematic(opt, seed_key, n_draws, n_years):
     gauge = _normal_factor(rng_g, opt.gauge_catch_rel_sd, (d, 1))
     return (np.broadcast_to(z_shared, (d, n_years, 1)), np.broadcast_to(z_own, (d, n_years, k)),
             np.broadcast_to(gauge, (d, n_years)))
+
+
+def hour_shares(instants, start, end) -> np.ndarray:
+    """(n, G) share of each sample's duration in each period between `instants`
+    (G = len(instants) + 1; period g from instant g-1 to instant g) [1]; a sample of no
+    duration lies wholly in the period of its start.
+
+    Parameters
+    ----------
+    instants : ndarray of datetime64 [ns], sorted
+    start, end : ndarray of datetime64 (n,)
+    """
+    t0 = np.asarray(start, "datetime64[ns]").astype(np.int64).astype(float)
+    t1 = np.asarray(end, "datetime64[ns]").astype(np.int64).astype(float)
+    cut = np.asarray(instants, "datetime64[ns]").astype(np.int64).astype(float)
+    lo = np.concatenate([[-np.inf], cut])[None, :]
+    hi = np.concatenate([cut, [np.inf]])[None, :]
+    over = np.clip(np.minimum(t1[:, None], hi) - np.maximum(t0[:, None], lo), 0.0, None)
+    dur = (t1 - t0)[:, None]
+    first = np.searchsorted(cut, t0, side="right")
+    onehot = (np.arange(len(cut) + 1)[None, :] == first[:, None]).astype(float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(dur > 0, over / np.where(dur > 0, dur, 1.0), onehot)
+
+
+def _per_period(opt, key, tags, instants, sd, d, n_years, year0):
+    """Normal factors 1 + sd z (cut at 0), one per period between `instants` (the
+    first from the start of the record), shared by the years of a period, or with
+    ``systematic_errors = "each_year"`` one per calendar year and period: (D, Y, G)
+    [1].  Each period's stream is named by `key`, `tags` and the period's first
+    instant (0 for the first), so that it does not depend on the run's years."""
+    firsts = [0] + [int(t) for t in np.asarray(instants, "datetime64[ns]").astype(np.int64)]
+    shared = getattr(opt, "systematic_errors", "shared") == "shared"
+    if not sd > 0:
+        return np.broadcast_to(np.ones((d, 1, len(firsts))), (d, n_years, len(firsts)))
+    if shared:                       # drawn once, a read-only view over the years
+        out = np.empty((d, 1, len(firsts)))
+        for g, t in enumerate(firsts):
+            rng = np.random.default_rng(key + [RECORD_STREAM] + tags + _stream_key((t,)))
+            out[:, 0, g] = _normal_factor(rng, sd, (d,))
+        return np.broadcast_to(out, (d, n_years, len(firsts)))
+    out = np.ones((d, n_years, len(firsts)))
+    for g, t in enumerate(firsts):             # a few years: one stream per year
+        for y in range(n_years):
+            rng = np.random.default_rng(key + [YEAR_STREAM, int(year0) + y] + tags
+                                        + _stream_key((t,)))
+            out[:, y, g] = _normal_factor(rng, sd, (d,))
+    return out
+
+
+def sample_lab_bias(bias, instants, start, end, year0, n_years, skip=None):
+    """The calibration bias of each sample's laboratory [1]: (D, n) from `bias` (D, Y, L)
+    ((D, 1) when every sample has the same laboratory and year).
+
+    A sample is analysed by the laboratory in force when it is collected (its end: a
+    sample ending at 00:00 UTC of a change's date is the earlier laboratory's); its
+    year (for ``"each_year"``) is that of its middle, within the run's years.  A sample
+    flagged in `skip` (n,) gets 1 (a value below detection: no calibration acts on
+    half a limit)."""
+    t1 = np.asarray(end, "datetime64[ns]")
+    lab = np.searchsorted(np.asarray(instants, "datetime64[ns]"), t1, side="left")
+    t0 = np.asarray(start, "datetime64[ns]")
+    mid = t0 + (t1 - t0) // 2
+    yi = np.clip(mid.astype("datetime64[Y]").astype(int) + 1970 - int(year0), 0, n_years - 1)
+    if skip is not None and np.any(skip):
+        bias = np.concatenate([bias, np.ones(bias.shape[:2] + (1,))], -1)
+        lab = np.where(skip, bias.shape[2] - 1, lab)
+    if len(lab) and (lab == lab[0]).all() and (yi == yi[0]).all():
+        return bias[:, yi[0], lab[0], None]            # one laboratory-year: (D, 1)
+    return bias[:, yi, lab]
+
+
+def _class_parts(seed_key, key, opt, classes, d, n_years, year0, k):
+    """Normal deviates (D, Y, K) of each land-use class's own part of the Vd factors:
+    one per class for the run (named by the seed and the class: shared by every site
+    and receptor of the class), or per site, calendar year and class (``"each_year"``)."""
+    out = {}
+    for c in sorted(classes):
+        if getattr(opt, "systematic_errors", "shared") == "shared":
+            rng = np.random.default_rng(_stream_key((seed_key[0], "")) + [RECORD_STREAM, VD_CLASS]
+                                        + _stream_key((c,)))
+            out[c] = np.broadcast_to(rng.standard_normal((d, 1, k)), (d, n_years, k))
+        else:
+            z = np.empty((d, n_years, k))
+            for y in range(n_years):
+                rng = np.random.default_rng(key + [YEAR_STREAM, int(year0) + y, VD_CLASS]
+                                            + _stream_key((c,)))
+                z[:, y] = rng.standard_normal((d, k))
+            out[c] = z
+    return out
 
 
 def keyed_normal_factor(key, what, idents, sd, n_draws, shift=1.0):
@@ -173,16 +282,48 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
     ln_gsd = np.log([opt.gsd(sp) for sp in DRY_SPECIES])
     rho = opt.vd_shared_fraction
     vd = np.exp(ln_gsd * (np.sqrt(rho) * z_shared + np.sqrt(1 - rho) * z_own))
+    # the Vd bias of a land-use class: a share kappa of each species' own log-variance
+    # is the class's (one draw per class), the rest shared by every class; the
+    # log-variance of one receptor's factor stays ln^2 GSD
+    kappa = float(getattr(opt, "vd_class_fraction", 0.0))
+    vd_class = {}
+    if kappa > 0:
+        classes = {c for rows in layer_site.dry.values() if rows.klass is not None
+                   for c in np.unique(rows.klass.astype(str))}
+        # shared by the years: computed on one year, a read-only view over the others
+        one = 1 if getattr(opt, "systematic_errors", "shared") == "shared" else n_years
+        for c, z_c in _class_parts(seed_key, key, opt, classes, d, n_years, year0, k).items():
+            f = np.exp(ln_gsd * (np.sqrt(rho) * z_shared[:, :one] + np.sqrt(1 - rho) * (
+                np.sqrt(1 - kappa) * z_own[:, :one] + np.sqrt(kappa) * z_c[:, :one])))
+            vd_class[c] = np.broadcast_to(f, (d, n_years, k))
+    # a gauge period after each declared gauge change draws its own catch
+    g_changes = getattr(layer_site, "gauge_changes", np.array([], "datetime64[ns]"))
+    if len(g_changes):
+        later = _per_period(opt, key, [GAUGE_PERIOD], g_changes, opt.gauge_catch_rel_sd, d,
+                            n_years, year0)
+        gauge_periods = np.concatenate([np.asarray(gauge)[:, :, None], later[:, :, 1:]], -1)
+    else:
+        gauge_periods = np.asarray(gauge)[:, :, None]      # a view: the one gauge
     wet = layer_site.wet
     depth, pconc, pwm_fill = None, {}, {}
     idents = wet.ident if wet is not None else []
     depth = keyed_normal_factor(key, "depth", idents, opt.depth_rel_sd, d)
+    lab_changes = getattr(layer_site, "lab_changes", np.array([], "datetime64[ns]"))
+    lab_precip, lab_air = {}, {}
+    sd_lab = float(getattr(opt, "lab_bias_precip_rel_sd", 0.0))
     if wet is not None:
         for ion in sorted(wet.conc):
             cens = np.zeros(wet.n_samples, bool)
             cens[wet.sample[wet.censored[ion]]] = True
             sd = np.where(cens, opt.censored_rel_sd, opt.precip_conc_rel_sd)
             pconc[ion] = keyed_normal_factor(key, f"precip:{ion}", idents, sd, d)
+            if sd_lab > 0 and wet.start is not None:
+                # the laboratory's calibration bias, on the values it measured (not
+                # on half a detection limit put in for a value below it)
+                lab_precip[ion] = _per_period(opt, key, [LAB_BIAS] + _stream_key(("precip", ion)),
+                                              lab_changes, sd_lab, d, n_years, year0)
+                pconc[ion] *= sample_lab_bias(lab_precip[ion], lab_changes, wet.start,
+                                              wet.end, year0, n_years, cens)
     air, vd_fill = {}, {}
     for sp in DRY_SPECIES:
         if sp not in layer_site.dry:
@@ -192,6 +333,23 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
         # an air sample's analytical error is of its own species (a bracket member's
         # rows in the species a pair is moved into keep their error)
         air[sp] = keyed_normal_factor(key, "air", rows.ident, sd, d)
+        sd_lab = float(getattr(opt, "lab_bias_air_rel_sd", 0.0))
+        if sd_lab > 0 and rows.start is not None:
+            # the laboratory's calibration bias of each sample's own species (a pair
+            # member's rows moved into another species keep their member's bias)
+            member = np.array([str(i[0]) if i else sp for i in rows.ident], object)
+            cens = np.asarray(rows.censored, bool)
+            for m in sorted(set(member)):
+                if m not in lab_air:
+                    lab_air[m] = _per_period(opt, key, [LAB_BIAS] + _stream_key(("air", m)),
+                                             lab_changes, sd_lab, d, n_years, year0)
+                sel = np.flatnonzero(member == m)
+                b = sample_lab_bias(lab_air[m], lab_changes, rows.start[sel], rows.end[sel],
+                                    year0, n_years, cens[sel])
+                if len(sel) == len(member):
+                    air[sp] *= b
+                else:
+                    air[sp][:, sel] *= b
         # a fill error acts on the hours not modelled only: none drawn without them
         sd_fill = np.where((rows.filled > 0).any(axis=(1, 2)), opt.vd_fill_rel_sd, 0.0)
         vd_fill[sp] = keyed_normal_factor(key, f"vd_fill:{sp}", rows.ident, sd_fill, d) - 1.0
@@ -204,4 +362,5 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
     for ion in sorted(layer_site.pwm):
         pwm_fill[ion] = keyed_normal_factor(key, f"pwm_fill:{ion}", bounds,
                                             opt.pwm_fill_rel_sd, d)
-    return SiteNoise(vd, gauge, depth, pconc, air, vd_fill, pwm_fill)
+    return SiteNoise(vd, gauge, depth, pconc, air, vd_fill, pwm_fill, gauge_periods, vd_class,
+                     lab_precip, lab_air)

@@ -159,7 +159,21 @@ def summary_dataset(q) -> xr.Dataset:
                                    "period": b["period"].values})
 
 
-def report_section(table, to_html) -> list:
+def draws_in_force(options) -> str:
+    """One line naming how the systematic factors were drawn (the options a reader of a
+    range must know: ``systematic_errors``, the laboratory biases, the land-use class
+    part of the Vd), as the report shows it; "" without options."""
+    if options is None:
+        return ""
+    return (f"Drawn with systematic_errors = \"{options.systematic_errors}\", "
+            f"lab_bias_precip_rel_sd = {options.lab_bias_precip_rel_sd:g}, "
+            f"lab_bias_air_rel_sd = {options.lab_bias_air_rel_sd:g}, "
+            f"vd_class_fraction = {options.vd_class_fraction:g}, "
+            f"gauge_catch_rel_sd = {options.gauge_catch_rel_sd:g} per gauge period "
+            f"({options.draws} draws, seed {options.seed}).")
+
+
+def report_section(table, to_html, options=None) -> list:
     """HTML parts of the report: the 5-95 % range of every total (none without draws).
 
     Parameters
@@ -168,6 +182,8 @@ def report_section(table, to_html) -> list:
         budget.csv rows, with the quantile columns of :func:`add_quantiles` or without.
     to_html : callable
         DataFrame -> HTML table text (the report's own).
+    options : UncertaintyOptions, optional
+        The options of the draws: named under the text (:func:`draws_in_force`).
     """
     import html
     if "flux_kg_ha_yr_p05" not in table:
@@ -180,15 +196,21 @@ def report_section(table, to_html) -> list:
                                       "flux_kg_ha_yr_p50": "50 %", "flux_kg_ha_yr_p95": "95 %",
                                       "range_note": "the range covers"})
     return ["<h2>Uncertainty: 5-95 % range of every total [kg/ha/yr of S or N]</h2>",
-            "<p>" + html.escape(REPORT_TEXT) + "</p>", to_html(frame)]
+            "<p>" + html.escape(REPORT_TEXT) + "</p>",
+            "<p class='draws'>" + html.escape(draws_in_force(options)) + "</p>", to_html(frame)]
 
 
 #: What the ranges hold and leave out, as the report says it (docs/methods_uncertainty.md,
 #: "What a range covers").
 REPORT_TEXT = (
     "Quantiles of a Monte Carlo of the budget: Vd model factors (log-normal, "
-    "systematic: the same at every site and in every year), gauge catch (systematic: "
-    "one per site, the same in every year), analytical and depth errors per sample, "
+    "systematic: the same at every site and in every year, with a part of their own "
+    "per land-use class), gauge catch (systematic: one per gauge of a site, the same in "
+    "every year that gauge stood; a declared gauge change starts a new one), a "
+    "laboratory's calibration bias (systematic: one per ion or species and laboratory "
+    "of a site, shared by every sample it analysed; air and precipitation laboratories "
+    "apart; a declared laboratory change starts a new one), analytical and depth "
+    "errors per sample, "
     "gap-filled Vd (by the share of the deposition the filled hours carry) and PWMs "
     "filled from the climatology (docs/methods_uncertainty.md). They bound the errors "
     "named there only. A span mean's range does not narrow with its years for the "
@@ -196,8 +218,8 @@ REPORT_TEXT = (
     "old treatment kept for comparison). Not in the range: errors of the method itself "
     "(omitted species and processes); the difference between the gas schemes (the Vd "
     "factors stand for model spread in general, not for the scheme chosen); a "
-    "laboratory's calibration bias (the analytical errors drawn are random per sample; "
-    "workbench sensitivity shows a bias's weight); the scaling of a period's measured "
+    "calibration bias shared by the air and the precipitation laboratory, or by two "
+    "species analysed as one ion; the scaling of a period's measured "
     "hours or samples to the whole period where coverage is short; flagged samples kept "
     "at their values and gauge depths filled from the collector or the met record (they "
     "get the ordinary errors). A total "

@@ -10,8 +10,10 @@ draw is a few matrix products per site and never re-runs the engine:
 
   with :math:`A` the sampling period's contribution, :math:`F` the Vd model factor
   (log-normal, median 1, systematic: shared by every site and year, correlated among
-  species through the shared micrometeorology), :math:`\\delta` the analytical error
-  of the sample (random per sample), :math:`\\phi` the share of its deposition in the
+  species through the shared micrometeorology, with a part of its own per land-use
+  class of the receptor, ``vd_class_fraction``), :math:`\\delta` the analytical error
+  of the sample (random per sample) times its laboratory's calibration bias
+  (systematic per laboratory period and species), :math:`\\phi` the share of its deposition in the
   period that its hours without a modelled Vd carry (gap-filled, or missing) and
   :math:`\\eta` the error of the fill (random per sample);
 * wet component of ion *X*: :math:`D = \\bar C_p P_p` with, per draw,
@@ -20,8 +22,11 @@ draw is a few matrix products per site and never re-runs the engine:
             \\bar C_p = \\frac{\\sum_{i\\,valid} w_{ip} \\varepsilon_i C_i \\delta_i}
                               {\\sum_{i\\,valid} w_{ip} \\varepsilon_i}
 
-  with :math:`g` the gauge catch (systematic: shared by a site's years), :math:`\\varepsilon` the
-  depth error and :math:`\\delta` the analytical error (random per sample); a PWM
+  with :math:`g` the gauge catch (systematic: one per gauge period of a site, shared
+  by its years; a piece under two gauges by the share of its hours under each, in the
+  precipitation and the PWM's weights alike), :math:`\\varepsilon` the depth error
+  and :math:`\\delta` the analytical error (random per sample) times the
+  laboratory's calibration bias (systematic: one per ion and laboratory period); a PWM
   filled from the multi-year seasonal means gets its own error instead, and the
   non-sea-salt sulfate is recomputed from the drawn SO4 and tracer PWMs.
 
@@ -88,9 +93,10 @@ class UncertaintyOptions:
         Relative standard deviation of a precipitation concentration, random per sample
         and ion [1]; 0.05 (network QA practice for ion chromatography, from memory).
     gauge_catch_rel_sd : float
-        Relative standard deviation of the gauge catch [1], systematic: shared by a
-        site's years, its own at each site (``systematic_errors``); 0.05 (rain gauges,
-        from memory; more where snow falls).
+        Relative standard deviation of the gauge catch [1], systematic: shared by the
+        years of one gauge (a gauge period of a site, split at its ``what = "gauge"``
+        changes), its own at each site and for each gauge (``systematic_errors``); 0.05
+        (rain gauges, from memory; more where snow falls).
     depth_rel_sd : float
         Relative standard deviation of a sample's precipitation depth, random per
         sample [1]; 0.05 (common practice, from memory).
@@ -109,10 +115,29 @@ class UncertaintyOptions:
     systematic_errors : str
         How the systematic factors (Vd model factor, gauge catch) are drawn: "shared"
         (default) draws the Vd factors once for the whole run, shared by every site and
-        year (a scheme's bias repeats), and the gauge catch once per site, shared by its
-        years (the same gauge); "each_year" draws both anew for every site and calendar
+        year (a scheme's bias repeats), and the gauge catch once per gauge period of a
+        site, shared by its years (the same gauge); "each_year" draws both anew for every site and calendar
         year, as before (a span's range then narrows as 1/sqrt(years): for comparison
-        only).  docs/methods_uncertainty.md, "Systematic or random".
+        only).  docs/methods_uncertainty.md, "Systematic or random".  The gauge
+        periods, laboratory biases and land-use class parts below follow it alike.
+    lab_bias_precip_rel_sd : float
+        Relative standard deviation of a precipitation laboratory's calibration bias
+        [1], systematic: one draw per ion and laboratory period of a site (split at its
+        ``what = "laboratory"`` changes), shared by every sample that laboratory
+        analysed; 0.03 (from memory of interlaboratory comparisons of precipitation
+        chemistry: most laboratories within a few percent of the reference values for
+        the major ions).
+    lab_bias_air_rel_sd : float
+        The same for the air samples' laboratory, a laboratory of its own (drawn apart
+        from the precipitation laboratory's); 0.05 (from memory: filter and denuder
+        extracts add their extraction and blanks to the analysis).
+    vd_class_fraction : float
+        Share of each species' own log-variance of the Vd factor (the part not shared
+        through the micrometeorology, 1 - ``vd_shared_fraction``) that is a bias of the
+        receptor's land-use class [1]: one draw per class for the run, shared by every
+        site and receptor of that class.  The log-variance of one receptor's factor
+        stays ln^2 GSD; only the correlation between classes falls.  0.5 (our choice, no
+        published value; 0 is one bias for every surface, as before).
     """
 
     draws: int = 0
@@ -127,6 +152,9 @@ class UncertaintyOptions:
     vd_fill_rel_sd: float = 0.3
     pwm_fill_rel_sd: float = 0.3
     systematic_errors: str = "shared"
+    lab_bias_precip_rel_sd: float = 0.03
+    lab_bias_air_rel_sd: float = 0.05
+    vd_class_fraction: float = 0.5
 
     def __post_init__(self):
         if self.systematic_errors not in SYSTEMATIC_ERRORS:
@@ -138,13 +166,16 @@ class UncertaintyOptions:
                 raise ValueError(f"UncertaintyOptions.{name} = {v!r} must be an integer >= 0")
             object.__setattr__(self, name, int(v))           # 1000.0 from a file -> 1000
         for name in ("air_rel_sd", "precip_conc_rel_sd", "gauge_catch_rel_sd", "depth_rel_sd",
-                     "censored_rel_sd", "vd_fill_rel_sd", "pwm_fill_rel_sd"):
+                     "censored_rel_sd", "vd_fill_rel_sd", "pwm_fill_rel_sd",
+                     "lab_bias_precip_rel_sd", "lab_bias_air_rel_sd"):
             v = getattr(self, name)
             if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 <= v < math.inf:
                 raise ValueError(f"UncertaintyOptions.{name} = {v!r} must be a finite number "
                                  ">= 0 (0 switches the factor off)")
-        if not 0 <= self.vd_shared_fraction <= 1:
-            raise ValueError("UncertaintyOptions.vd_shared_fraction must lie in [0, 1]")
+        for name in ("vd_shared_fraction", "vd_class_fraction"):
+            v = getattr(self, name)
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 <= v <= 1:
+                raise ValueError(f"UncertaintyOptions.{name} = {v!r} must lie in [0, 1]")
         for sp, g in self.vd_gsd.items():
             if sp not in DRY_SPECIES:
                 raise ValueError(f"UncertaintyOptions.vd_gsd: unknown species {sp!r}; "
@@ -175,19 +206,23 @@ def _safe_ratio(num, den):
         return np.where(den != 0, num / np.where(den != 0, den, 1.0), 0.0)
 
 
-def dry_ratio(pieces, vd_factor, air, vd_fill):
+def dry_ratio(pieces, vd_factor, air, vd_fill, class_factor=None):
     """Draws of a dry component over the point: (D, R, P) [1].
 
     Parameters
     ----------
     pieces : DryPieces
-        ``contrib`` (n, P, R) [mol m-2], ``filled`` (n, P, R) [1].
+        ``contrib`` (n, P, R) [mol m-2], ``filled`` (n, P, R) [1], ``klass`` (n, R).
     vd_factor : ndarray (D, P)
         Vd factor of each draw and period [1].
     air : ndarray (D, n)
         Multiplicative error of each sample [1].
     vd_fill : ndarray (D, n)
         Relative error of each sample's filled Vd hours [1].
+    class_factor : dict, optional
+        Land-use class -> (D, P) Vd factor of a receptor of that class [1]
+        (``vd_class_fraction`` > 0): each sample's part at each receptor takes the
+        factor of the class there (a site's own surface follows its history).
     """
     a = pieces.contrib
     n, n_p, n_r = a.shape
@@ -196,12 +231,26 @@ def dry_ratio(pieces, vd_factor, air, vd_fill):
     dev = (air - 1.0) @ flat + (air * vd_fill) @ (pieces.filled * a).reshape(n, -1)
     # >= 0 as every factor is (1 - sum/sum can round to -1e-19 when every sample's
     # factor is cut to 0, which would read as a net emission)
-    ratio = np.maximum(1.0 + _safe_ratio(dev, total), 0.0)
-    return (vd_factor[:, :, None] * ratio.reshape(-1, n_p, n_r)).transpose(0, 2, 1)
+    ratio = np.maximum(1.0 + _safe_ratio(dev, total), 0.0).reshape(-1, n_p, n_r)
+    if not class_factor:
+        return (vd_factor[:, :, None] * ratio).transpose(0, 2, 1)
+    # a factor per receptor, of its class; a receptor whose class changes among its
+    # samples (a site's own surface with a land-use history) sums F_c times the part of
+    # the samples of class c
+    klass = pieces.klass.astype(str)
+    out = np.stack([class_factor.get(klass[0, r], vd_factor) for r in range(n_r)], -1) * ratio
+    for r in np.flatnonzero(~(klass == klass[:1]).all(0)):
+        acc = np.zeros((air.shape[0], n_p))
+        for c in np.unique(klass[:, r]):
+            ac = a[:, :, r] * (klass[:, r] == c)[:, None]                  # (n, P)
+            part = ac.sum(0) + (air - 1.0) @ ac + (air * vd_fill) @ (pieces.filled[:, :, r] * ac)
+            acc += class_factor.get(c, vd_factor) * part
+        out[:, :, r] = np.maximum(_safe_ratio(acc, a[:, :, r].sum(0)), 0.0)
+    return out.transpose(0, 2, 1)
 
 
 def wet_ratios(wet, pwm_point, filled, gauge, depth, pconc, pwm_fill, n_periods, wanted,
-               tracer="Na"):
+               tracer="Na", gauge_piece=None):
     """Draws of the wet deposition of each ion over the point: ion -> (D, P) [1].
 
     Parameters
@@ -218,12 +267,27 @@ def wet_ratios(wet, pwm_point, filled, gauge, depth, pconc, pwm_fill, n_periods,
         ion -> (D, n_samples) and (D, P) factors [1].
     wanted : iterable of str
         Ions (``SO4``, ``NO3``, ``NH4``) and ``nssSO4``.
+    gauge_piece : tuple of ndarray, optional
+        ``(catch (D, Y G), onto (Y G, m))``: their product is the gauge catch of each
+        (sample, period) piece when the site changed its gauge [1]
+        (:func:`_gauge_by_piece`); it multiplies the piece's depth (in the precipitation and in the PWM's
+        weights alike), so a period under two gauges takes each one's catch by the
+        share of its depth under it; `gauge` is then used for a period without
+        samples only.  None: one catch per period (`gauge`).
     """
     onehot = np.zeros((len(wet.sample), n_periods))
     onehot[np.arange(len(wet.sample)), wet.period] = 1.0
     w = wet.weight[:, None] * onehot                                 # (m, P) [mm]
-    eps = depth[:, wet.sample]                                       # (D, m)
+    eps = depth[:, wet.sample]                                       # (D, m), a copy
+    if gauge_piece is not None:
+        # (gauge catch per draw and year-gauge (D, Y G), onto the pieces (Y G, m)):
+        # made here and multiplied in place, so that no second (D, m) array stays
+        g, onto = gauge_piece
+        eps *= g @ onto
     precip = np.maximum(1.0 + _safe_ratio((eps - 1.0) @ w, w.sum(0)), 0.0)
+    if gauge_piece is not None:            # the catch is in the depths already
+        precip = np.where(w.sum(0) > 0, precip, gauge)
+        gauge = 1.0
     pwm = {}
     for ion in set(wanted) | ({"SO4", tracer} if "nssSO4" in wanted else set()):
         if ion not in wet.conc:
@@ -278,16 +342,43 @@ def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int)
     for j, (_, path, sp) in enumerate(COMPONENTS):
         if path == "dry" and sp in ls.dry:
             k = DRY_SPECIES.index(sp)
+            cf = ({c: f[:, yi, k] for c, f in noise.vd_class.items()}
+                  if noise.vd_class and ls.dry[sp].klass is not None else None)
             ratio[..., j] = dry_ratio(ls.dry[sp], noise.vd[:, yi, k], noise.air[sp],
-                                      noise.vd_fill[sp])
+                                      noise.vd_fill[sp], cf)
     if ls.wet is not None:
         wanted = set(layer.wet_component.values())
-        wr = wet_ratios(ls.wet, ls.pwm, ls.wet_filled, noise.gauge[:, yi], noise.depth,
-                        noise.pconc, noise.pwm_fill, n_p, wanted, layer.tracer)
+        gauge, piece = noise.gauge[:, yi], None
+        gp = noise.gauge_periods
+        if gp is not None and gp.shape[2] > 1 and ls.wet.start is not None:
+            gauge, piece = _gauge_by_piece(ls, gp, yi, ds)
+        wr = wet_ratios(ls.wet, ls.pwm, ls.wet_filled, gauge, noise.depth,
+                        noise.pconc, noise.pwm_fill, n_p, wanted, layer.tracer, piece)
         for j, ion in layer.wet_component.items():
             if ion in wr:
                 ratio[..., j] = wr[ion][:, None, :]
     return point[None] * ratio
+
+
+def _gauge_by_piece(ls, gauge_periods, yi, ds):
+    """The gauge catch of a site that changed its gauge: ((D, P) of the gauge in force at
+    the middle of each period, for a period without samples; the factors of each
+    (sample, period) piece as ``(catch (D, Y G), onto (Y G, m))``, whose product gives
+    each piece the catch of each gauge by the share of the sample's hours under it).  Each piece takes the factors of its period's year (``"each_year"``)."""
+    from .noise import hour_shares
+    wet = ls.wet
+    changes = ls.gauge_changes
+    n_y, n_g = gauge_periods.shape[1], gauge_periods.shape[2]
+    share = hour_shares(changes, wet.start, wet.end)                  # (n_samples, G)
+    m = len(wet.sample)
+    onto = np.zeros((n_y, n_g, m))
+    onto[yi[wet.period], :, np.arange(m)] = share[wet.sample]
+    piece = (np.ascontiguousarray(gauge_periods).reshape(gauge_periods.shape[0], -1),
+             onto.reshape(n_y * n_g, m))
+    p0 = np.asarray(ds["period_start"].values, "datetime64[ns]")
+    p1 = np.asarray(ds["period_end"].values, "datetime64[ns]")
+    g_of_p = np.searchsorted(changes, p0 + (p1 - p0) // 2, side="right")
+    return gauge_periods[:, yi, g_of_p], piece
 
 
 def totals_of(comp: np.ndarray) -> dict:
