@@ -291,15 +291,15 @@ def _half_hour(lag) -> str:
     if lag > 0:
         return ("the radiation runs late against the sun by about half an hour. Labels of "
                 "the middle of the averaging interval read as its end (+0.5 h)? If so, the "
-                "interval ends 30 min after each label. A forenoon cloud maximum (fog or "
-                "low cloud clearing late) on clear days too also makes a late lag, and an "
-                "afternoon one can pull a whole-hour error down to this")
+                "interval ends 30 min after each label. Fog or low cloud clearing late on "
+                "the clearest days too also makes a late lag, and an afternoon cloud "
+                "maximum can pull a whole-hour error down to this")
     return ("the radiation runs early against the sun by about half an hour. Labels of the "
             "middle of the averaging interval read as its start ('# time_label: start', "
             "or the NetCDF/zarr attribute time_label = \"start\", -0.5 h)? If so, the "
-            "interval began 30 min before each label. An afternoon cloud maximum "
-            "(convection) on clear days too also makes an early lag, and a forenoon one can "
-            "pull a whole-hour error down to this")
+            "interval began 30 min before each label. Afternoon cloud on the clearest "
+            "days too (convection every afternoon) also makes an early lag, and a forenoon "
+            "cloud maximum can pull a whole-hour error down to this")
 
 
 def notes_from_lags(table, site_ids, catalogue, file_name) -> list[str]:
