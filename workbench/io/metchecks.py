@@ -291,9 +291,9 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
                                       per_site("longitude"))
     # a column holding another variable (shifted or swapped): before the unit checks,
     # whose reasons would name a unit for it
-    for name, sel, reason in column_checks(values, codes, len(names), sun_deg, raw_units):
-        if name == "solar_radiation":     # kept: a clock many hours off looks the same
-            flag(sel, reason)
+    for name, sel, reason in column_checks(values, codes, len(names), sun_deg, raw_units, t):
+        if name == "solar_radiation" or reason.endswith("(kept)"):
+            flag(sel, reason)             # radiation: a clock many hours off looks the same
         else:
             mask(name, sel, reason)
     # relative humidity written as a fraction under a % header (or the reverse)

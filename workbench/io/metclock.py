@@ -26,6 +26,14 @@ Method (per site, vectorized over sites and days; no loop over hours):
    equator), so that summer-time labels (a lag in summer only) are named as such, and
    per calendar year (a clock reset between years); each figure needs
    :data:`MIN_SUNNY_DAYS` sunny days, else it is "not judged".
+5. The whole record's figure that the note and the half-hour hint judge is the median of
+   the clearest tenth of the sunny days (at least :data:`MIN_SUNNY_DAYS`): a daily cloud
+   cycle (afternoon convection, morning fog) moves the centroid of the cloudy hours by up
+   to 0.4 h either way, as much as a half hour itself, while a day that clouds scarcely
+   touched keeps its centroid where the sun puts it.  So are the halves' and the years'
+   figures (their clearest tenth, at least :data:`MIN_SUNNY_DAYS` days): a cloud
+   cycle at a fixed solar hour moves the short winter days' centroid more than the
+   summer's.
 
 Why the centroid and not the best lag of a correlation with cos(zenith): it gives a
 lag in fractions of an hour from one pass of the solar code (a correlation needs one
@@ -62,18 +70,27 @@ SUNNY_CLEARNESS = 0.5
 MIN_SUNNY_DAYS = 20
 #: A lag at or beyond this is noted [h]: half-way between no error and the smallest clock
 #: error that labels make (a whole hour), beyond the lags of clean cloudy records (at
-#: most 0.06 h a year on the demo, -0.40 h with a strong afternoon cloud maximum;
+#: most 0.06 h a year on the demo, -0.40 h with a strong afternoon cloud maximum over all
+#: sunny days, -0.26 h over the clearest tenth that the whole-record note judges;
 #: section 4; our choice from these measured lags).
 LAG_NOTE_H = 0.75
-#: A whole-record lag from this up to LAG_NOTE_H, late (positive), gives a hint [h]: a
-#: logger that labels the middle of its averaging interval, read as its end, runs 0.5 h
-#: late.  Only late: an afternoon cloud maximum pulls the lag early (to -0.42 h on the
-#: invented years of tests/clock_years.py, -0.40 h on the records of section 4), so an
-#: early half hour cannot be told from cloud.  0.3 h is beyond the 20-day sampling
-#: spread of a clean record (0.21 h, section 4) and below a half hour under a moderate
-#: afternoon cloud maximum (0.36-0.42 h); measured detection rates: docs/data_formats.md,
-#: section 4 (our choice from these numbers).
+#: A whole-record lag (of the clearest days, :data:`CLEAREST_SHARE`) of this size or
+#: more but under LAG_NOTE_H, either sign, gives a hint [h]: a logger that labels
+#: the middle of its averaging interval runs 0.5 h late when its labels are read as
+#: interval ends, 0.5 h early when read as interval starts (``# time_label: start``).
+#: The whole-record lag of all sunny days cannot tell a half hour from a daily cloud
+#: cycle (an afternoon maximum pulls it early by up to 0.42 h, a forenoon maximum late by
+#: up to 0.40 h, on the invented years of tests/clock_years.py); the clearest days hold
+#: the bias to -0.26..+0.19 h (docs/data_formats.md, section 4).  0.3 h is beyond the
+#: 20-day sampling spread of a clean record (0.21 h, section 4) and beyond the clearest
+#: days' cloud bias; measured detection rates: section 4 (our choice from these numbers).
 HALF_HOUR_HINT_H = 0.3
+#: The clearest share of a site's sunny days whose median lag is the whole record's [-],
+#: at least MIN_SUNNY_DAYS of them: a day that clouds scarcely touched keeps its
+#: centroid where the sun puts it, whatever the hour at which a site's cloud usually
+#: builds (measured on the invented years of tests/clock_years.py: the tenth, the
+#: clearest 20 or 30 days and the clearest quarter differ by under 0.05 h; our choice).
+CLEAREST_SHARE = 0.1
 #: Months of the summer half north of the equator (swapped south of it): April to
 #: September, the half-year around the June solstice (common practice).
 SUMMER_MONTHS_NORTH = (4, 5, 6, 7, 8, 9)
@@ -154,6 +171,16 @@ def _median(x):
         return np.nanmedian(x, axis=1)
 
 
+def _clearest(sel, clear):
+    """The clearest :data:`CLEAREST_SHARE` of the days `sel` of each site, at least
+    :data:`MIN_SUNNY_DAYS` of them (all when fewer) [bool, shape of `sel`]."""
+    n = sel.sum(axis=1)
+    k = np.maximum(MIN_SUNNY_DAYS, np.ceil(CLEAREST_SHARE * n)).astype(int)
+    order = np.argsort(np.where(sel, -clear, np.inf), axis=1, kind="stable")
+    rank = np.argsort(order, axis=1, kind="stable")
+    return sel & (rank < k[:, None])
+
+
 def site_lags(radiation, time_end, latitude, longitude):
     """The clock lag of each site: median over sunny days, whole record and halves.
 
@@ -169,10 +196,14 @@ def site_lags(radiation, time_end, latitude, longitude):
     Returns
     -------
     pandas.DataFrame
-        One row per site: ``lag``, ``lag_summer``, ``lag_winter`` [h] (median of the
-        sunny days; NaN with fewer than :data:`MIN_SUNNY_DAYS`), ``days``, ``days_summer``,
-        ``days_winter`` (sunny complete days) and ``year_lags`` (dict year -> lag [h]
-        of each calendar year with enough sunny days).
+        One row per site: ``lag`` [h] (median of all the sunny days; NaN with fewer
+        than :data:`MIN_SUNNY_DAYS`), ``lag_clear``, ``lag_summer``, ``lag_winter`` [h]
+        (median of the clearest :data:`CLEAREST_SHARE` of the sunny days of the whole
+        record and of each half, at least :data:`MIN_SUNNY_DAYS` of them; NaN with fewer
+        sunny days), ``days``, ``days_summer``, ``days_winter`` (sunny complete days),
+        ``days_clear`` (the clearest days of the whole record) and ``year_lags`` (dict
+        year -> lag [h] of each calendar year with enough sunny days, its clearest
+        days).
     """
     lag, clear, month, year = day_lags(radiation, time_end, latitude, longitude)
     sunny = np.isfinite(lag) & (clear >= SUNNY_CLEARNESS)
@@ -181,15 +212,22 @@ def site_lags(radiation, time_end, latitude, longitude):
     out = {}
     for name, sel in (("", sunny), ("_summer", sunny & summer), ("_winter", sunny & ~summer)):
         n = sel.sum(axis=1)
-        med = _median(np.where(sel, lag, np.nan))
+        # the whole record over all its sunny days (for the notes' words); the halves
+        # and the whole record's judged figure over their clearest days
+        days = sel if name == "" else _clearest(sel, clear)
+        med = _median(np.where(days, lag, np.nan))
         out["lag" + name] = np.where(n >= MIN_SUNNY_DAYS, med, np.nan)
         out["days" + name] = n
+    clearest = _clearest(sunny, clear)
+    out["lag_clear"] = np.where(out["days"] >= MIN_SUNNY_DAYS,
+                                _median(np.where(clearest, lag, np.nan)), np.nan)
+    out["days_clear"] = clearest.sum(axis=1)
     years = np.unique(year) if year.size else np.array([], int)
     per_year = []
     for y in years:                                   # a handful of calendar years
         sel = sunny & (year == y)
         n = sel.sum(axis=1)
-        med = _median(np.where(sel, lag, np.nan))
+        med = _median(np.where(_clearest(sel, clear), lag, np.nan))
         per_year.append(np.where(n >= MIN_SUNNY_DAYS, med, np.nan))
     out["year_lags"] = [{int(y): float(v[i]) for y, v in zip(years, per_year)
                          if np.isfinite(v[i])} for i in range(len(out["lag"]))]
@@ -248,6 +286,22 @@ def _summer_time(row, off, seen) -> str:
             f"are read at utc_offset_h = {off:g} all year: {fix}")
 
 
+def _half_hour(lag) -> str:
+    """The hint's words for a lag of about half an hour, late or early [text]."""
+    if lag > 0:
+        return ("the radiation runs late against the sun by about half an hour. Labels of "
+                "the middle of the averaging interval read as its end (+0.5 h)? If so, the "
+                "interval ends 30 min after each label. Fog or low cloud clearing late on "
+                "the clearest days too also makes a late lag, and an afternoon cloud "
+                "maximum can pull a whole-hour error down to this")
+    return ("the radiation runs early against the sun by about half an hour. Labels of the "
+            "middle of the averaging interval read as its start ('# time_label: start', "
+            "or the NetCDF/zarr attribute time_label = \"start\", -0.5 h)? If so, the "
+            "interval began 30 min before each label. Afternoon cloud on the clearest "
+            "days too (convection every afternoon) also makes an early lag, and a forenoon "
+            "cloud maximum can pull a whole-hour error down to this")
+
+
 def notes_from_lags(table, site_ids, catalogue, file_name) -> list[str]:
     """The ledger notes of :func:`site_lags`'s table [text].
 
@@ -266,8 +320,9 @@ def notes_from_lags(table, site_ids, catalogue, file_name) -> list[str]:
     list of str
         A note per site whose lag is at least :data:`LAG_NOTE_H` (whole record, summer
         only, or changing between halves or years), one per site not judged, and a
-        hint per site whose whole-record lag is late by :data:`HALF_HOUR_HINT_H` or
-        more but under :data:`LAG_NOTE_H` (a half hour).
+        hint per site whose whole-record lag is under :data:`LAG_NOTE_H` while the
+        lag of its clearest sunny days (``lag_clear``) is :data:`HALF_HOUR_HINT_H` or
+        more, late or early (a half hour).
     """
     notes = []
     for site, row in zip(site_ids, table.itertuples(index=False)):
@@ -296,25 +351,23 @@ def notes_from_lags(table, site_ids, catalogue, file_name) -> list[str]:
         years = {y: v for y, v in row.year_lags.items()}
         each = ", ".join(f"{y}: {_hours(v)}" for y, v in sorted(years.items()))
         apart = len(years) > 1 and max(years.values()) - min(years.values()) >= LAG_NOTE_H
-        if abs(row.lag) >= LAG_NOTE_H:
+        whole = row.lag_clear              # the clearest days: not moved by a cloud cycle
+        seen = (f"median of the clearest {int(row.days_clear)} of {int(row.days)} sunny "
+                f"days; all sunny days {_hours(row.lag)}, summer {_hours(row.lag_summer)}, "
+                f"winter {_hours(row.lag_winter)}")
+        # years apart, one of them on time: a mix, whose whole-record figure means nothing
+        mixed = apart and min(abs(v) for v in years.values()) < LAG_NOTE_H
+        if abs(whole) >= LAG_NOTE_H and not mixed:
             by_year = (f"; it changes between years ({each}): a logger clock reset or "
                        f"drifting?" if apart else "")
-            notes.append(f"{head}: lag {_hours(row.lag)} (median of {int(row.days)} sunny "
-                         f"days; summer {_hours(row.lag_summer)}, winter "
-                         f"{_hours(row.lag_winter)}): {_cause(row.lag, off)}{by_year}{kept}")
+            notes.append(f"{head}: lag {_hours(whole)} ({seen}): {_cause(whole, off)}"
+                         f"{by_year}{kept}")
         elif apart:
             notes.append(f"{head}: the lag changes between years ({each}): a logger clock "
                          f"reset or drifting? Check the logger's clock log{kept}")
-        if HALF_HOUR_HINT_H <= row.lag < LAG_NOTE_H and not apart:   # not a mix of years
-            notes.append(f"{head}: hint: lag {_hours(row.lag)} (median of {int(row.days)} "
-                         f"sunny days; summer {_hours(row.lag_summer)}, winter "
-                         f"{_hours(row.lag_winter)}), below the {LAG_NOTE_H:g} h of a clock "
-                         f"error: the radiation runs late against the sun by about half an "
-                         f"hour. Labels of the middle of the averaging interval read as its "
-                         f"end (+0.5 h)? If so, the interval ends 30 min after each label. "
-                         f"A forenoon cloud maximum (fog or low cloud clearing late) also "
-                         f"makes a late lag, and an afternoon one can pull a whole-hour "
-                         f"error down to this{kept}")
+        if HALF_HOUR_HINT_H <= abs(whole) < LAG_NOTE_H and not apart:   # not a mix of years
+            notes.append(f"{head}: hint: lag {_hours(whole)} ({seen}), below the "
+                         f"{LAG_NOTE_H:g} h of a clock error: {_half_hour(whole)}{kept}")
     return notes
 
 

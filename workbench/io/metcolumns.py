@@ -38,6 +38,7 @@ tests/io/test_met_columns.py).
 from __future__ import annotations
 
 import numpy as np
+import pandas as pd
 
 from ..constants import ZERO_CELSIUS
 
@@ -122,7 +123,7 @@ def site_correlation(codes, n_sites, x, y):
     return np.where((n >= MIN_HOURS) & (sxx > 0) & (syy > 0), r, np.nan)
 
 
-def column_checks(values, codes, n_sites, elevation_deg, raw_headers=None):
+def column_checks(values, codes, n_sites, elevation_deg, raw_headers=None, time_end=None):
     """Judge each site's columns by what their variable must look like.
 
     Parameters
@@ -138,6 +139,8 @@ def column_checks(values, codes, n_sites, elevation_deg, raw_headers=None):
         no relation to the sun).
     raw_headers : dict of str to str, optional
         The unit each variable was written in, for the reasons.
+    time_end : ndarray of datetime64, optional
+        Hour end of each row [UTC] (None: no check of a column pasted rows off).
 
     Returns
     -------
@@ -251,4 +254,233 @@ def column_checks(values, codes, n_sites, elevation_deg, raw_headers=None):
                             f"(correlation {r_rh[s]:+.2f} with the solar radiation): "
                             f"{what}, expected a relative humidity, lowest in the afternoon "
                             f"(masked)"))
+    # a wind speed column holding a temperature in degC (inside 0..75 m/s)
+    if "wind_speed" in values and time_end is not None \
+            and not any(f[0] == "wind_speed" for f in out):
+        out.extend(_wind_as_temperature(values["wind_speed"], codes, n_sites, time_end,
+                                        head("wind_speed")))
+    # the temperature pasted rows off against the radiation (once both passed above)
+    if (sane_radiation is not None and time_end is not None and "temperature" in values
+            and not any(f[0] == "temperature" for f in out)):
+        out.extend(_temperature_shift(values["temperature"], sane_radiation, codes,
+                                      n_sites, time_end, head("temperature")))
     return out
+
+
+def smoothness_and_season(x, codes, n_sites, time_end):
+    """Per site: the standard deviation of the hour-to-hour changes over that of the
+    values [-], the range of the 12 calendar months' means over the standard deviation
+    [-] (NaN without all 12 months), and the count of finite values.
+
+    The hour-to-hour changes are taken between consecutive hours of a site only (rows
+    sorted by site and time; a gap breaks the pair).
+    """
+    t = np.asarray(time_end, dtype="datetime64[ns]")
+    order = np.lexsort((t, codes))
+    c, tv, xv = codes[order], t[order], np.asarray(x, float)[order]
+    pair = (c[1:] == c[:-1]) & ((tv[1:] - tv[:-1]) == np.timedelta64(1, "h"))
+    dx = np.where(pair, xv[1:] - xv[:-1], np.nan)
+    okd = np.isfinite(dx)
+    nd = np.bincount(c[1:][okd], minlength=n_sites)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        sd_d = np.sqrt(np.bincount(c[1:][okd], dx[okd] ** 2, n_sites) / nd)
+    ok = np.isfinite(xv)
+    n = np.bincount(c[ok], minlength=n_sites).astype(float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mean = np.bincount(c[ok], xv[ok], n_sites) / n
+        sd = np.sqrt(np.bincount(c[ok], (xv[ok] - mean[c[ok]]) ** 2, n_sites) / n)
+    month = (tv - np.timedelta64(30, "m")).astype("datetime64[M]").astype(np.int64) % 12
+    key = c[ok] * 12 + month[ok]
+    nm = np.bincount(key, minlength=12 * n_sites).reshape(n_sites, 12)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mm = (np.bincount(key, xv[ok], 12 * n_sites).reshape(n_sites, 12) / nm)
+        rng = np.where((nm > 0).all(axis=1), mm.max(axis=1) - mm.min(axis=1), np.nan)
+        return sd_d / sd, rng / sd, n
+
+
+#: A wind speed column smoother than this (hour-to-hour changes over its standard
+#: deviation) [-] (measured: demo winds 0.44, temperatures 0.12, the long-record
+#: fixture's noisy temperature 0.39, missed; a wind's hourly persistence of about 0.9
+#: gives 0.45, invented winds of persistence 0.95 with a seasonal cycle of 4 m/s
+#: 0.17-0.19, of 0.98 and 4 m/s 0.11-0.13, flagged: benchmarks/met_row_shift.py; our
+#: choice)
+WIND_SMOOTHNESS_MAX = 0.15
+#: ... with calendar months whose means span at least this many standard deviations
+#: [-] holds a temperature (measured: demo temperatures 2.2-2.3, long-record 2.5; demo
+#: winds 0.6-0.7, long-record 0.03; an invented monsoon wind of 2-4 m/s seasonal
+#: amplitude 1.4-2.5, which the smoothness rules out but at a persistence of 0.98; our
+#: choice)
+WIND_SEASON_MIN = 1.5
+
+
+def _wind_as_temperature(u, codes, n_sites, time_end, head):
+    """A wind speed column as smooth from hour to hour and as seasonal as a
+    temperature (a temperature in degC, inside the wind's hard range but for frost): a
+    flag (kept) on the site's rows [list of (variable, rows, reason)]."""
+    smooth, season, n = smoothness_and_season(u, codes, n_sites, time_end)
+    bad = (n >= MIN_HOURS) & (smooth < WIND_SMOOTHNESS_MAX) & (season >= WIND_SEASON_MIN)
+    return [("wind_speed", codes == s,
+             f"{head} changes from hour to hour by {smooth[s]:.2f} of its spread and its "
+             f"monthly means span {season[s]:.1f} times its spread: as smooth and as "
+             f"seasonal as a temperature (in degC? a column shifted or swapped?), "
+             f"expected a wind speed, which changes by about half its spread from hour "
+             f"to hour (kept)") for s in np.flatnonzero(bad)]
+
+
+def _temperature_shift(temperature, radiation, codes, n_sites, time_end, head):
+    """The findings of :func:`temperature_lag_steps`: a change of at least
+    :data:`SHIFT_STEP_H` at a line with one side's lag outside :data:`PLAUSIBLE_LAG_H`;
+    the rows of that side are flagged (kept) [list of (variable, rows, reason)]."""
+    step, day, before, after, days = temperature_lag_steps(temperature, radiation, codes,
+                                                           n_sites, time_end)
+    lo, hi = PLAUSIBLE_LAG_H
+    out_before = (before < lo) | (before > hi)
+    out_after = (after < lo) | (after > hi)
+    bad = (np.abs(step) >= SHIFT_STEP_H) & (out_before ^ out_after)
+    if not bad.any():
+        return []
+    mid_day = (np.asarray(time_end, dtype="datetime64[ns]")
+               - np.timedelta64(30, "m")).astype("datetime64[D]")
+    found = []
+    for s in np.flatnonzero(bad):                       # a handful of sites
+        first, last = _change_day(days[days["site"] == s], day[s], before[s], after[s])
+        when = (f"on {first}" if first == last else
+                f"between {first} and {last} (days of a weak daily cycle between)")
+        later = mid_day >= (first if out_after[s] else last)
+        rows = (codes == s) & (later if out_after[s] else ~later)
+        wrong, right = (after[s], before[s]) if out_after[s] else (before[s], after[s])
+        moved = wrong - right                          # + : the temperature comes late
+        way = "down" if moved > 0 else "up"
+        side = "after" if out_after[s] else "before"
+        found.append(("temperature", rows,
+                      f"{head}: its daily cycle lags the solar radiation's by "
+                      f"{wrong:+.1f} h (median of {SHIFT_WINDOW_DAYS} days with a clear "
+                      f"daily cycle) {side} a change {when}, against {right:+.1f} h on "
+                      f"the other side: outside the {lo:g} to {hi:+g} h a temperature "
+                      f"lags the sun, and a change of {abs(step[s]):.1f} h at once, not "
+                      f"with the season: the column pasted about {abs(round(moved)):.0f} "
+                      f"rows {way} against the others? (kept)"))
+    return found
+
+
+#: Days on either side of a candidate line whose median lags are compared [d] (a month:
+#: long enough for the weather of single days to drop out of a median, our choice).
+SHIFT_WINDOW_DAYS = 30
+#: A day's daily cycles count when the radiation's first harmonic has at least this
+#: amplitude [W m-2] and the temperature's at least TEMPERATURE_AMPLITUDE_K [K] (a
+#: polar night or an overcast, windy day has no phase; our choice).
+RADIATION_AMPLITUDE = 50.0
+TEMPERATURE_AMPLITUDE_K = 1.0
+#: A change of the temperature's lag behind the radiation between the months either
+#: side of a line, of this much or more [h], with the lag of one side outside
+#: PLAUSIBLE_LAG_H, is a paste rows off (our choice, from the measured changes of clean
+#: records: up to 1.4 h on invented years, 3.1 h on the demo, whose winter cycles
+#: change their phase at once; docs/data_formats.md, section 4).
+SHIFT_STEP_H = 2.0
+#: The range of a month's median lag of the temperature's daily cycle behind the
+#: radiation's (first harmonics) that a site's air can make [h]: the warmest hour comes
+#: 1-3 h after solar noon (from memory; measured: demo -0.3 to +3.3 h, long-record
+#: fixture +2.4 to +3.3 h, invented years with a 1.5-5 h thermal response -0.3 to
+#: +3.8 h), with a margin of 1.2 h either side (our choice).
+PLAUSIBLE_LAG_H = (-1.5, 5.0)
+#: Splits this many day votes short of the best still place the change [-] (our choice).
+CHANGE_VOTES = 2
+_TWO_PI = 2.0 * np.pi
+
+
+def _harmonic_phase(x):
+    """Hour [0, 24) of the maximum of the first daily harmonic of each row of `x`
+    (shape (day, 24), slot k the hour k..k+1), and its amplitude [units of x]."""
+    w = _TWO_PI * (np.arange(24) + 0.5) / 24.0
+    a = x @ np.cos(w)
+    b = x @ np.sin(w)
+    return (np.arctan2(b, a) % _TWO_PI) * 24.0 / _TWO_PI, 2.0 * np.hypot(a, b) / 24.0
+
+
+def _change_day(days, rough, before, after, window=SHIFT_WINDOW_DAYS):
+    """The first day of the new lag near `rough`: the splits of the judged days within
+    `window` of it that most days on either side agree with (each day's lag on the side
+    of the midpoint of `before` and `after` that its side says; a sign count, robust to
+    single days' weather), within :data:`CHANGE_VOTES` of the best; the first and the
+    last such day [datetime64[D]] (winter days with a weak daily cycle leave the line
+    uncertain by weeks)."""
+    d = days["day"].to_numpy().astype("datetime64[D]")
+    lag = days["lag"].to_numpy()
+    i = int(np.searchsorted(d, rough))
+    lo, hi = max(0, i - window), min(len(d), i + window)
+    vote = np.sign((lag[lo:hi] - 0.5 * (before + after)) * np.sign(after - before))
+    # score of a split before position j: -votes before it + votes from it on
+    score = -np.concatenate([[0.0], np.cumsum(vote)]) + (vote.sum()
+                                                         - np.concatenate([[0.0], np.cumsum(vote)]))
+    near = np.flatnonzero(score[:-1] >= score[:-1].max() - CHANGE_VOTES)
+    return (d[lo + near.min()].astype("datetime64[D]"),
+            d[lo + near.max()].astype("datetime64[D]"))
+
+
+def temperature_lag_steps(temperature, radiation, codes, n_sites, time_end,
+                          window=SHIFT_WINDOW_DAYS):
+    """The temperature's daily lag behind the radiation and its largest change per site.
+
+    Parameters
+    ----------
+    temperature, radiation : ndarray
+        Per row [K], [W m-2].
+    codes : ndarray of int
+        Site code of each row (0 .. n_sites - 1).
+    n_sites : int
+    time_end : ndarray of datetime64
+        Hour end of each row [UTC].
+    window : int
+        Days compared on either side [d].
+
+    Returns
+    -------
+    step : ndarray, shape (site,)
+        The largest change (signed) of the median lag of the `window` judged days after
+        a day against the `window` before it [h]; NaN when a site has too few.
+    first_day : ndarray of datetime64[D], shape (site,)
+        The first UTC day after that change (NaT if none).
+    lag_before, lag_after : ndarray, shape (site,)
+        The two medians [h].
+    days : pandas.DataFrame
+        The judged days: ``site``, ``day`` (days since 1970-01-01, UTC), ``lag`` [h].
+    """
+    t = np.asarray(time_end, dtype="datetime64[ns]") - np.timedelta64(30, "m")
+    day = t.astype("datetime64[D]")
+    slot = ((t - day) // np.timedelta64(1, "h")).astype(np.int64)
+    key = codes.astype(np.int64) * 10_000_000 + day.astype(np.int64)
+    ids, uniq = pd.factorize(key, sort=True)
+    n_d = len(uniq)
+    tt = np.full((n_d, 24), np.nan)
+    rr = np.full((n_d, 24), np.nan)
+    tt[ids, slot] = temperature
+    rr[ids, slot] = radiation
+    ok = np.isfinite(tt).all(axis=1) & np.isfinite(rr).all(axis=1)
+    ph_t, amp_t = _harmonic_phase(np.where(ok[:, None], tt, 0.0))
+    ph_r, amp_r = _harmonic_phase(np.where(ok[:, None], rr, 0.0))
+    ok &= (amp_r >= RADIATION_AMPLITUDE) & (amp_t >= TEMPERATURE_AMPLITUDE_K)
+    lag = (ph_t - ph_r + 12.0) % 24.0 - 12.0
+    d_site = (uniq // 10_000_000)[ok]
+    d_day = (uniq % 10_000_000)[ok]
+    frame = pd.DataFrame({"site": d_site, "lag": lag[ok]})
+    g = frame.groupby("site")["lag"]
+    before = g.transform(lambda s: s.shift(1).rolling(window, min_periods=window).median())
+    after = g.transform(lambda s: s[::-1].rolling(window, min_periods=window).median()[::-1])
+    step = (after - before).to_numpy()
+    out_step = np.full(n_sites, np.nan)
+    out_day = np.full(n_sites, np.datetime64("NaT"), dtype="datetime64[D]")
+    out_b = np.full(n_sites, np.nan)
+    out_a = np.full(n_sites, np.nan)
+    fin = np.isfinite(step)
+    if fin.any():
+        mag = np.where(fin, np.abs(step), -1.0)
+        order = np.lexsort((-mag, d_site))              # per site, largest first
+        first = order[np.r_[True, d_site[order][1:] != d_site[order][:-1]]]
+        first = first[fin[first]]
+        s = d_site[first]
+        out_step[s] = step[first]
+        out_day[s] = d_day[first].astype("datetime64[D]")
+        out_b[s] = before.to_numpy()[first]
+        out_a[s] = after.to_numpy()[first]
+    days = pd.DataFrame({"site": d_site, "day": d_day, "lag": lag[ok]})
+    return out_step, out_day, out_b, out_a, days
