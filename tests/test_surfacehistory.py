@@ -284,30 +284,55 @@ def collectors(record):
             "bulk": _run(record, site("bulk"), "c_bulk", BULK)}
 
 
-def test_collector_change_years_equal_runs_of_each_collector(collectors):
+def _sampled_hours(record, a, b):
+    """Hours of [a, b) covered by the precipitation rows of the record (from the file)."""
+    p = pd.read_csv(record / "precipitation.csv", comment="#")
+    s = pd.to_datetime(p["start"]).clip(lower=pd.Timestamp(a))
+    e = pd.to_datetime(p["end"]).clip(upper=pd.Timestamp(b))
+    return ((e - s).dt.total_seconds().clip(lower=0) / 3600).sum()
+
+
+def test_collector_change_years_equal_runs_of_each_collector(collectors, record):
     """Before 2014 the rules of the wet-only collector (particle dry deposition added),
-    from 2014 those of the bulk one (taken as caught): every row, value and status, as
-    the two separate runs; the years before say which collector."""
+    from 2015 those of the bulk one (taken as caught): every row, value and status, as
+    the two separate runs; the years before say which collector.  2014 holds the first 9
+    hours of the last daily sample of the wet-only collector (2013-12-31 09:00 to
+    2014-01-01 09:00: a collector is swapped between samples, so the change dated
+    2014-01-01 falls after it): the particle dry deposition of those sampled hours is
+    added, the row is not flagged for it (every sample under one collector) and names
+    both collectors."""
     h = _table(collectors["history"][1], ["2012", "2013", "2014", "2015"])
     for years, ref in ((["2012", "2013"], "wet_only"), (["2014", "2015"], "bulk")):
         r = _table(collectors[ref][1], years)
         got = h.loc[r.index]
-        np.testing.assert_allclose(got["flux_kg_ha"], r["flux_kg_ha"], rtol=1e-12)
+        keep = ~((got.index.get_level_values("period") == "2014")
+                 & (got.index.get_level_values("pathway") != "wet"))
+        np.testing.assert_allclose(got["flux_kg_ha"][keep], r["flux_kg_ha"][keep], rtol=1e-12)
         assert (got["status"] == r["status"]).all(), ref
     p = ("2013", "S", "dry", "pSO4")
     assert h.loc[p, "flux_kg_ha"] > 0 and _table(collectors["bulk"][1], ["2013"]).loc[
         p, "flux_kg_ha"] == 0
     assert "collector wet_only (before 2014-01-01)" in h.loc[("2013", "S", "wet", "SO4"), "note"]
+    p = ("2014", "S", "dry", "pSO4")
+    share = 9.0 / _sampled_hours(record, "2014-01-01", "2015-01-01")
+    w = _table(collectors["wet_only"][1], ["2014"])
+    np.testing.assert_allclose(h.loc[p, "flux_kg_ha"], w.loc[p, "flux_kg_ha"] * share,
+                               rtol=1e-9)
+    assert "collector wet_only until 2014-01-01, bulk after" in h.loc[p, "note"]
 
 
-def test_collector_change_inside_a_year_is_shared_by_hours_and_flagged(collectors):
-    """A change on 2014-07-01: the particle dry deposition of 2014 is that of the
-    wet-only hours' share (181 of 365 days), flagged and noted; the other years follow
-    their collector."""
+def test_collector_change_inside_a_year_is_shared_by_hours_and_flagged(collectors, record):
+    """A change on 2014-07-01, inside the weekly sample of 2014-06-25 to 07-02: that
+    sample is split at 07-01 00:00 by its hours; the particle dry deposition of 2014 is
+    that of the hours sampled by the wet-only collector (the 2014 part of the last
+    daily sample, the weekly ones to 06-25 and the straddling one's hours before 07-01:
+    181 days of the year when every hour is sampled), flagged (the split is an
+    estimate) and noted; the other years follow their collector."""
     h = _table(collectors["straddle"][1], ["2013", "2014", "2015"])
     w = _table(collectors["wet_only"][1], ["2014"])
     p = ("2014", "S", "dry", "pSO4")
-    share = (np.datetime64("2014-07-01") - np.datetime64("2014-01-01")).astype(int) / 365
+    share = (_sampled_hours(record, "2014-01-01", "2014-07-01")
+             / _sampled_hours(record, "2014-01-01", "2015-01-01"))
     np.testing.assert_allclose(h.loc[p, "flux_kg_ha"], w.loc[p, "flux_kg_ha"] * share,
                                rtol=1e-12)
     assert h.loc[p, "status"] == "flagged"
@@ -373,3 +398,41 @@ def test_check_refuses_particles_of_an_earlier_bulk_collector_without_a_correcti
     (d / "scenario.toml").write_text(sc)
     with pytest.raises(PreflightError, match="site 'haugh' had a bulk collector"):
         prepare(d / "scenario.toml")
+
+
+SCALE = '\n[budget]\nbulk_correction = "scale_wet"\nbulk_wet_factor = 0.8\n'
+
+
+def test_month_holding_a_collector_change_is_the_sum_of_each_collectors_samples(record):
+    """The long record, months, a change to bulk dated 2014-10-15 (the day one weekly
+    sample ends and the next starts at 09:00), scale_wet 0.8: October 2014's wet
+    deposition is the wet chain on the wet-only samples alone plus 0.8 x the wet chain
+    on the bulk samples alone, ion by ion (exact where every sample of the month has
+    valid chemistry and gauge depth: checked first), not flagged for the change, and
+    its note names both collectors.  The share-of-hours rule of before gave 0.8 on
+    17/31 of the month whatever the samples held: it fails here."""
+    from workbench.wet import wet_deposition
+    from workbench.tables import budget_table
+    text = (SITE.format(land_use="grass", height=0.15, collector="bulk", receptors="")
+            + COLLECTOR_CHANGE.format(date="2014-10-15"))
+    study, res = _run(record, text, "c_month", SCALE, resolution="month")
+    wet = res.wet.sel(site="haugh", period="2014-10")
+    assert float(wet["valid_precip_fraction"]) == 1.0 and float(wet["gauge_fraction"]) == 1.0
+    scr = res.screened
+    cut = np.datetime64("2014-10-15T09:00", "ns")
+    per = res.periods[res.periods["label"] == "2014-10"]
+    a = wet_deposition(scr.isel(sample=np.flatnonzero(scr["end"].values <= cut)), per,
+                       res.options["wet"]).sel(site="haugh").isel(period=0)
+    b = wet_deposition(scr.isel(sample=np.flatnonzero(scr["start"].values >= cut)), per,
+                       res.options["wet"]).sel(site="haugh").isel(period=0)
+    t = budget_table(res.budget)
+    t = t[(t["period"] == "2014-10") & (t["pathway"] == "wet")].set_index("species")
+    bud = res.budget.sel(site="haugh", period="2014-10").isel(receptor=0)
+    for ion, el in (("NO3", "N"), ("NH4", "N")):
+        want = float(a[f"dep_{ion}"]) + 0.8 * float(b[f"dep_{ion}"])
+        np.testing.assert_allclose(float(bud["deposition"].sel(component=f"{el}/wet/{ion}")),
+                                   want, rtol=1e-12)
+        old = (float(a[f"dep_{ion}"]) + float(b[f"dep_{ion}"])) * (1 - 0.2 * 17 / 31)
+        assert abs(want - old) > 1e-4 * want
+        assert t.loc[ion, "status"] != "flagged" or "flagged samples" in t.loc[ion, "note"]
+        assert "collector wet_only until 2014-10-15, bulk after" in t.loc[ion, "note"]
