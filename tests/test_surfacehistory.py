@@ -436,3 +436,61 @@ def test_month_holding_a_collector_change_is_the_sum_of_each_collectors_samples(
         assert abs(want - old) > 1e-4 * want
         assert t.loc[ion, "status"] != "flagged" or "flagged samples" in t.loc[ion, "note"]
         assert "collector wet_only until 2014-10-15, bulk after" in t.loc[ion, "note"]
+
+
+# ------------------------------------------------------------------- the wind mast
+def _mast_site(land_use, height, receptors=""):
+    """The site with a 25 m mast (above the forest's displacement height) and no
+    met_land_use: the mast stands over the site's own surface."""
+    return (SITE.format(land_use=land_use, height=height, collector="wet_only",
+                        receptors=receptors)
+            .replace('met_land_use = "grass"\n', "").replace("wind_height_m = 10.0",
+                                                               "wind_height_m = 25.0"))
+
+
+@pytest.fixture(scope="module")
+def mast_runs(record):
+    """The felled record without met_land_use (the mast follows the land use), and the
+    plain runs of the forest (class defaults) and of the grass, each with its mast over
+    its own surface."""
+    from workbench.landuse import LAND_USE
+    felled = (_mast_site("grass", 0.15, '"conifer_forest"')
+              + LAND_CHANGE.format(date="2014-04-01", frm="conifer_forest", to="grass"))
+    return {"history": _run(record, felled, "m_history"),
+            "forest": _run(record, _mast_site("conifer_forest",
+                                              LAND_USE["conifer_forest"][1]), "m_forest"),
+            "grass": _run(record, _mast_site("grass", 0.15, '"conifer_forest"'), "m_grass")}
+
+
+@pytest.mark.parametrize("var", ["friction_velocity", "ra", "vd_SO2", "vd_pSO4", "vd_HNO3"])
+def test_the_mast_follows_the_land_use_when_met_land_use_is_not_given(mast_runs, var):
+    """Before 2014-04-01 00:00 UTC the mast stood over the forest: the own row is the
+    forest of a plain forest run (its mast over the forest too), and so is the declared
+    forest receptor (u* carried from the forest mast); from then on both are the grass
+    run's (mast over grass).  Before, the mast was taken as grass in every hour: the
+    forest hours differed (the test can fail)."""
+    h = mast_runs["history"][1].velocities.sel(site="haugh")
+    before = h["time"].values <= FELLED
+    f = _own(mast_runs["forest"][1], "conifer_forest")[var].values
+    g = mast_runs["grass"][1].velocities.sel(site="haugh")
+    np.testing.assert_allclose(h[var].sel(receptor="grass").values[before], f[before],
+                               rtol=1e-12)
+    np.testing.assert_allclose(h[var].sel(receptor="grass").values[~before],
+                               g[var].sel(receptor="grass").values[~before], rtol=1e-12)
+    np.testing.assert_allclose(h[var].sel(receptor="conifer_forest").values[before],
+                               f[before], rtol=1e-12)
+    np.testing.assert_allclose(h[var].sel(receptor="conifer_forest").values[~before],
+                               g[var].sel(receptor="conifer_forest").values[~before],
+                               rtol=1e-12)
+    grass_mast = g[var].sel(receptor="conifer_forest").values[before]
+    assert not np.allclose(f[before], grass_mast, rtol=1e-3, equal_nan=True)
+
+
+def test_a_declared_met_land_use_stays_fixed(runs):
+    """met_land_use = "grass" given: the mast is grass in every hour (what the user
+    declared), so the declared forest receptor is the same in every hour as in a plain
+    grass-site run with that receptor (the felled record of the fixtures above)."""
+    h = runs["history"][1].velocities.sel(site="haugh", receptor="conifer_forest")
+    f = _own(runs["forest"][1], "conifer_forest")
+    np.testing.assert_allclose(h["friction_velocity"].values,
+                               f["friction_velocity"].values, rtol=1e-12)

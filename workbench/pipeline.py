@@ -41,7 +41,7 @@ from .drycomponents import dry_components, dry_rows
 from .graph import Graph, Node, content_digest, input_node, token
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
-from .surfacehistory import collector_history, earlier_classes, land_use_history
+from .surfacehistory import collector_history, earlier_classes, land_use_history, mast_history
 from .tables import budget_table, span_table
 
 #: Kept for older imports: the wet options of the wet chain alone.
@@ -283,6 +283,11 @@ class Study:
         # hour (docs/data_formats.md, "A long record"; workbench/surfacehistory.py)
         surf_h = self._run("history_surfaces", deps={"catalogue": self._catalogue_node(overrides)},
                            params={"history": history})
+        mast = mast_history(self.catalogue(overrides), history)
+        if mast:
+            # the wind mast of a site without met_land_use stands over its own surface:
+            # its z0 and d follow the history hour by hour too (workbench/surfacehistory.py)
+            met = self._run("mast_in_force", deps={"met": met}, params={"history": mast})
         every = tuple(str(r) for r in surf.value["receptor"].values)
         shown = every if receptors is None else tuple(receptors)
         extra = tuple(dict.fromkeys(c for cs in earlier_classes(history).values() for c in cs

@@ -99,6 +99,15 @@ def history_surfaces(o, catalogue, history):
     return history_catalogue(catalogue, history).surfaces()
 
 
+@stage("mast_in_force")
+def mast_in_force(o, met, history):
+    """The met with the class under the wind mast over each hour where it follows the
+    site's declared land-use changes (`history`: :func:`workbench.surfacehistory.mast_history`,
+    the sites without ``met_land_use``): :func:`workbench.surfacehistory.mast_in_force`."""
+    from .surfacehistory import mast_in_force as _mast
+    return _mast(met, history)
+
+
 @stage("land_use_in_force")
 def land_use_in_force(o, velocities, surfaces, history, receptors, wanted):
     """The velocities with each site's own surface under the class in force at each hour

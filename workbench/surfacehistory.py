@@ -71,6 +71,57 @@ def _segments(changes):
     return instants, classes
 
 
+def mast_history(catalogue, history) -> tuple:
+    """The entries of `history` (:func:`land_use_history`) whose wind mast stands over
+    the site's own surface: those without ``met_land_use``, whose mast surface follows
+    the land use hour by hour.  A site that gives ``met_land_use`` keeps that class
+    under its mast in every hour (what the user declared)."""
+    mast = {s.id: s.met_land_use for s in catalogue}
+    return tuple(h for h in history if mast.get(h[0]) is None)
+
+
+#: Code of an hour whose mast surface is the one the catalogue describes (not an
+#: earlier class): :func:`mast_in_force`.
+AS_DECLARED = -1
+
+
+def mast_in_force(met: xr.Dataset, history) -> xr.Dataset:
+    """The met with ``met_land_use_in_force`` (site, time): per hour the position in
+    :data:`CLASSES` of the class under the wind mast when it is an earlier class of the
+    site's own surface (the hours before a land-use change, switching at 00:00 UTC of
+    the change's date, as :func:`class_in_force`), :data:`AS_DECLARED` (-1) where the
+    mast surface is the one of the catalogue.
+
+    Parameters
+    ----------
+    met : xarray.Dataset
+        Hourly met (site, time).
+    history : tuple
+        :func:`mast_history`: the sites whose mast follows their land use.
+    """
+    sites = [str(x) for x in met["site"].values]
+    times = met["time"].values
+    code = np.full((len(sites), times.size), AS_DECLARED, np.int8)
+    for site, own, changes in history:
+        if site not in sites:
+            continue
+        k, classes = class_in_force(times, changes)
+        per = np.array([AS_DECLARED if c == own else CLASSES.index(c) for c in classes],
+                       np.int8)
+        code[sites.index(site)] = per[k]
+    var = xr.Variable(("site", "time"), code, {
+        "long_name": "land-use class under the wind mast where it is an earlier class of "
+                     "the site's surface (-1: the surface of the catalogue)",
+        "flag_values": np.arange(-1, len(CLASSES), dtype=np.int8),
+        "flag_meanings": "as_declared " + " ".join(CLASSES)})
+    dims = met["temperature"].dims if "temperature" in met else ("site", "time")
+    da = xr.DataArray(var, coords={"site": met["site"], "time": met["time"]}).transpose(
+        *[d for d in dims if d in ("site", "time")])
+    if met.chunks and "temperature" in met and met["temperature"].chunks:
+        da = da.chunk(dict(zip(met["temperature"].dims, met["temperature"].chunks)))
+    return met.assign(met_land_use_in_force=da)
+
+
 def earlier_classes(history) -> dict:
     """site -> the classes of its own surface before its last change (not its land use)."""
     out = {}
