@@ -263,6 +263,7 @@ def test_the_earlier_class_alone_is_not_shown_as_a_receptor(runs):
 
 # ------------------------------------------------------------------- the collector
 BULK = '\n[budget]\nbulk_correction = "exclude_particles"\n'
+SCALE = '\n[budget]\nbulk_correction = "scale_wet"\nbulk_wet_factor = 0.8\n'
 
 
 def _table(result, years):
@@ -340,13 +341,22 @@ def test_collector_change_inside_a_year_is_shared_by_hours_and_flagged(collector
     assert h.loc[("2015", "S", "dry", "pSO4"), "flux_kg_ha"] == 0
 
 
-def test_run_folder_of_a_changed_site_accounts_rows_and_verifies(record, runs, tmp_path):
-    """`workbench run` of the felled record: input_rows.csv counts every data line of
-    each input, provenance.json verifies, velocities.nc has land_use_in_force."""
+@pytest.mark.parametrize("name", ["history", "m_history_c"])
+def test_run_folder_of_a_changed_site_accounts_rows_and_verifies(record, runs, tmp_path, name):
+    """`workbench run` of the felled record (and of the felled record whose mast follows
+    the land use, its collector changed to bulk inside 2014 with scale_wet):
+    input_rows.csv counts every data line of each input, provenance.json verifies,
+    velocities.nc has land_use_in_force, the NetCDF outputs are CF-clean."""
     import xarray as xr
 
     from workbench.cli import main
-    d = record / "history"
+    if name != "history":
+        text = (_mast_site("grass", 0.15, '"conifer_forest"').replace(
+            'collector = "wet_only"', 'collector = "bulk"')
+            + LAND_CHANGE.format(date="2014-04-01", frm="conifer_forest", to="grass")
+            + COLLECTOR_CHANGE.format(date="2014-07-01"))
+        _run(record, text, name, SCALE)
+    d = record / name
     out = tmp_path / "run"
     assert main(["run", str(d / "scenario.toml"), "--out", str(out), "--quiet"]) == 0
     rows = pd.read_csv(out / "input_rows.csv", keep_default_na=False)
@@ -399,8 +409,6 @@ def test_check_refuses_particles_of_an_earlier_bulk_collector_without_a_correcti
     with pytest.raises(PreflightError, match="site 'haugh' had a bulk collector"):
         prepare(d / "scenario.toml")
 
-
-SCALE = '\n[budget]\nbulk_correction = "scale_wet"\nbulk_wet_factor = 0.8\n'
 
 
 def test_month_holding_a_collector_change_is_the_sum_of_each_collectors_samples(record):
