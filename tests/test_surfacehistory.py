@@ -502,3 +502,20 @@ def test_a_declared_met_land_use_stays_fixed(runs):
     f = _own(runs["forest"][1], "conifer_forest")
     np.testing.assert_allclose(h["friction_velocity"].values,
                                f["friction_velocity"].values, rtol=1e-12)
+
+
+def test_the_mast_history_on_chunked_met_gives_the_same_numbers(mast_runs):
+    """The felled record whose mast follows the land use, its met dask-backed (chunks of
+    30 days, some straddling the felling): the same hourly u* and Vd as in memory."""
+    pytest.importorskip("dask")
+    import dataclasses
+
+    from workbench.pipeline import Study
+    study, res = mast_runs["history"]
+    lazy = Study(dataclasses.replace(study.inputs, met=study.inputs.met.chunk({"time": 24 * 30})),
+                 study.site_overrides)
+    o = res.options
+    got = lazy.velocities(o["dry"])
+    for var in ("friction_velocity", "vd_SO2"):
+        np.testing.assert_allclose(got[var].sel(site="haugh").values,
+                                   res.velocities[var].sel(site="haugh").values, rtol=1e-12)

@@ -12,9 +12,16 @@ time mask per change, no loop over hours).  The site's ``canopy_height_m``,
 is now (after the last change): they apply to the hours of the site's own class only.
 Receptors declared by the user keep their one class in every hour.
 
-A changed collector (``what = "collector"``) is followed by the budget
-(:func:`collector_shares`): each reporting period takes the rules of the collector in
-force over it (docs/budget.md, "Bulk collectors").
+Without ``met_land_use`` the wind mast stands over the site's own surface and follows
+the same history (:func:`mast_history`, :func:`mast_in_force`: the class under the mast
+over each hour, on the met); a given ``met_land_use`` stays fixed.
+
+A changed collector (``what = "collector"``) is followed by the budget sample by sample
+(:func:`collector_split`): each precipitation sample is under the collector in force
+over its dates (:func:`sample_collectors`), and a period's wet deposition is the sum of
+its samples' contributions under their own rules (docs/budget.md, "Bulk collectors");
+:func:`collector_shares` (the share of a period's hours by the change's date) is what
+the budget falls back on without the samples.
 """
 from __future__ import annotations
 
