@@ -145,6 +145,8 @@ def test_exclude_particles_takes_the_hours_the_bulk_samples_ran(tmp_path):
     np.testing.assert_allclose(float(b["deposition"].sel(component="S/wet/SO4")),
                                _by_hand([0, 0, 0, 0], "SO4"), rtol=1e-12)
     assert str(b["status"].sel(component="S/wet/SO4").values) == "complete"
+    assert "collector wet_only until 2021-06-15, bulk after" in str(
+        b["note"].sel(component="S/wet/SO4").values)       # its wet row names both
 
 
 def test_the_period_is_the_sum_of_the_runs_of_each_collectors_samples(tmp_path):

@@ -362,8 +362,9 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                     "(bulk_correction scale_wet)")), note)
                 st = np.where(estimated & (st == "complete"), "flagged", st)
             if (coll_words != "").any():
-                note = np.where((coll_words != "") & ~straddle,
-                                join_notes(note, coll_words), note)
+                # (a period holding both collectors under scale_wet says it above)
+                said = straddle if options.bulk_correction == "scale_wet" else False
+                note = np.where((coll_words != "") & ~said, join_notes(note, coll_words), note)
             dep[:, :, :, j] = d[:, None, :]
             status[:, :, :, j] = st[:, None, :]
             fails[:, :, :, j] = fl[:, None, :]
