@@ -30,7 +30,7 @@ from .budgetstatus import (as_flag, bracket_outputs, bulk_caught_brackets, dry_s
                            wet_outputs)
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
-from .surfacehistory import collector_shares, period_notes
+from .surfacehistory import collector_shares, describe, period_notes
 from .units import deposition_in, element_deposition_in
 
 #: (element, pathway, species, source variable) of every budget component, in order.
@@ -263,7 +263,7 @@ def _dry_on_receptors(dry: xr.Dataset, receptors) -> xr.Dataset:
 
 
 def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods: pd.DataFrame,
-             options: BudgetOptions, receptors, season_cov=None):
+             options: BudgetOptions, receptors, season_cov=None, collector=None):
     """Wet + dry components per site, receptor and period, with totals and status.
 
     Parameters
@@ -279,6 +279,11 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
         Receptor surfaces (coordinate of the result).
     season_cov : ndarray, optional
         (site, period, species) bool: every season covered (for years).
+    collector : dict, optional
+        :func:`workbench.surfacehistory.collector_split` of the samples on the same
+        periods, at sites whose collector changed: each sample's part of the wet
+        deposition is taken under its own collector's rules (without it: the share of
+        the period's hours under each collector by the change's date).
 
     Returns
     -------
@@ -306,6 +311,19 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     # the collector in force over each period (docs/budget.md, "Bulk collectors": a
     # declared collector change is followed): share of the period's hours under bulk
     bulk_share, coll_words = collector_shares(catalogue, sites, periods)
+    # sample by sample where the samples are known (workbench/surfacehistory.py,
+    # collector_split): the hours sampled under bulk; `estimated` where a sample that
+    # holds a change's day was split between the collectors
+    split = _collector_split_on(collector, sites, n_p)
+    if split is not None:
+        bulk_share = np.where(np.isfinite(split["hour_share"]), split["hour_share"], bulk_share)
+        mixed = (bulk_share > 0) & (bulk_share < 1)
+        # a period whose samples hold both collectors names both (even if its dates do not)
+        dated = np.char.find(coll_words.astype(str), " until ") >= 0
+        coll_words = np.where(mixed & ~dated, split["both_words"], coll_words).astype(object)
+        estimated = split["estimated"] & mixed
+    else:
+        estimated = (bulk_share > 0) & (bulk_share < 1)
     bulk_p = bulk_share >= 1.0                       # (site, period) wholly bulk
     straddle = (bulk_share > 0) & ~bulk_p            # a collector change inside
     bulk = bulk_share.max(axis=1) > 0                # (site,) bulk in some period
@@ -349,15 +367,19 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                 d = np.where(bulk_p, d * f, d)
                 note = np.where(bulk_p, join_notes(note, f"bulk deposition x {f:g} "
                                                          "(bulk_correction scale_wet)"), note)
-                # a period holding both collectors: the factor on its bulk share of hours
-                d = np.where(straddle, d * (1.0 - bulk_share * (1.0 - f)), d)
+                # a period holding both collectors: the factor on the bulk samples' part of
+                # its deposition (their share of the hours without the samples)
+                dep_share, how = (_wet_bulk_share(split, w, sp, options) if split is not None
+                                  else (bulk_share, "bulk share of the period's hours"))
+                d = np.where(straddle, d * (1.0 - dep_share * (1.0 - f)), d)
                 note = np.where(straddle, join_notes(note, np.char.add(
-                    coll_words.astype(str), f": bulk deposition x {f:g} on the "
-                    "bulk share of the period's hours (bulk_correction scale_wet)")), note)
-                st = np.where(straddle & (st == "complete"), "flagged", st)
+                    coll_words.astype(str), f": bulk deposition x {f:g} on the {how} "
+                    "(bulk_correction scale_wet)")), note)
+                st = np.where(estimated & (st == "complete"), "flagged", st)
             if (coll_words != "").any():
-                note = np.where((coll_words != "") & ~straddle,
-                                join_notes(note, coll_words), note)
+                # (a period holding both collectors under scale_wet says it above)
+                said = straddle if options.bulk_correction == "scale_wet" else False
+                note = np.where((coll_words != "") & ~said, join_notes(note, coll_words), note)
             dep[:, :, :, j] = d[:, None, :]
             status[:, :, :, j] = st[:, None, :]
             fails[:, :, :, j] = fl[:, None, :]
@@ -406,10 +428,12 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                 # wet-only share of hours is added, the bulk share is taken as caught
                 part = straddle[:, None, :] & np.ones((1, n_r, n_p), bool)
                 d = np.where(part, d * (1.0 - bulk_share[:, None, :]), d)
-                st = np.where(part & (st == "complete"), "flagged", st)
+                st = np.where(estimated[:, None, :] & part & (st == "complete"), "flagged", st)
+                hours = ("hours sampled by the bulk collector" if split is not None
+                         else "bulk share of the period's hours")
                 comp_note[..., j] = np.where(part, join_notes(comp_note[..., j], np.char.add(
                     (coll_words[:, None, :] * np.ones((1, n_r, 1), object)).astype(str),
-                    f": the bulk share of the period's hours taken as caught (in its wet {ion}),"
+                    f": the {hours} taken as caught (in its wet {ion}),"
                     " the rest added")), comp_note[..., j])
                 d = np.where(excl, np.where(status[..., jw] == "missing", np.nan, 0.0), d)
                 st = np.where(excl, status[..., jw], st)
@@ -529,6 +553,47 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                      "notes": json.dumps(notes), "nh3_figure": figure,
                      "omissions": json.dumps([list(o) for o in OMISSIONS])})
     return ds
+
+
+def _collector_split_on(split, sites, n_p):
+    """:func:`workbench.surfacehistory.collector_split` on the budget's sites (a site
+    without samples: NaN shares, not estimated), with the words of a period holding
+    both collectors; None without it."""
+    if split is None:
+        return None
+    have = {s: k for k, s in enumerate(split["sites"])}
+    idx = np.array([have.get(str(s), -1) for s in sites], int)
+    ok = (idx >= 0)[:, None]
+
+    def on(a, fill):
+        a = np.asarray(a)
+        return np.where(ok, a[np.maximum(idx, 0)], fill)
+    out = {"hour_share": on(split["hour_share"], np.nan),
+           "precip_share": on(split["precip_share"], np.nan),
+           "estimated": on(split["estimated"], False).astype(bool),
+           "share": {sp: on(v, np.nan) for sp, v in split["share"].items()}}
+    words = np.full((len(sites), n_p), "", dtype=object)
+    for sid, _, changes in split.get("history", ()):
+        if sid in list(sites):
+            words[list(sites).index(sid)] = "collector " + describe(changes)
+    out["both_words"] = words
+    return out
+
+
+def _wet_bulk_share(split, w, sp, options):
+    """(site, period) share [1] of the wet component's deposition carried by the bulk
+    samples, and its words: the samples' contributions (a period whose mean was filled
+    from the climatology: their share of the precipitation; no sample: the hours)."""
+    nss = sp == "SO4" and options.sulfate_basis == "nss" and "dep_nssSO4" in w.variables
+    share = split["share"].get(f"nss{sp}" if nss else sp)
+    if share is None:
+        share = np.full(split["precip_share"].shape, np.nan)
+    filled = (w.variables["filled"].values.astype(bool) if "filled" in w.variables
+              else np.zeros(share.shape, bool))
+    share = np.where(filled, split["precip_share"], share)
+    share = np.where(np.isfinite(share), share, split["precip_share"])
+    share = np.where(np.isfinite(share), share, split["hour_share"])
+    return np.nan_to_num(share), "bulk samples' part of the deposition"
 
 
 def _same_axis(ds: xr.Dataset, dim: str, values) -> bool:

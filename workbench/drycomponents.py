@@ -27,7 +27,7 @@ from .periods import hour_bounds
 
 
 def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=7,
-                       template=None, slots=None):
+                       template=None, slots=None, classes=None):
     """Gap-filled hourly Vd per species, with the fill mask and its source.
 
     Parameters
@@ -43,6 +43,9 @@ def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=
         model was not run.
     slots : tuple, optional
         :func:`workbench.dryflux.hour_slots` of the time axis (default: computed).
+    classes : xarray.DataArray, optional
+        The land-use class in force over each hour (``land_use_in_force``): each hour is
+        filled from the hours of its class (:func:`workbench.dryflux.fill_diurnal`).
 
     Returns
     -------
@@ -62,7 +65,7 @@ def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=
             continue
         if vd_ds is None or f"vd_{sp}" not in vd_ds:
             continue
-        filled, was = fill_diurnal(vd_ds[f"vd_{sp}"].load(), min_slot_hours, slots)
+        filled, was = fill_diurnal(vd_ds[f"vd_{sp}"].load(), min_slot_hours, slots, classes)
         out[sp] = (filled, was, vd_ds.attrs.get("gas_scheme", "model"))
     return out
 

@@ -62,7 +62,8 @@ class DryFluxOptions:
     preferred_method: dict = field(default_factory=dict)
 
 
-def fill_diurnal(vd: xr.DataArray, min_slot_hours: int = MIN_SLOT_HOURS, slots=None):
+def fill_diurnal(vd: xr.DataArray, min_slot_hours: int = MIN_SLOT_HOURS, slots=None,
+                 classes=None):
     """Fill missing hourly Vd from the mean diurnal cycle of the same month.
 
     Parameters
@@ -75,6 +76,12 @@ def fill_diurnal(vd: xr.DataArray, min_slot_hours: int = MIN_SLOT_HOURS, slots=N
     slots : tuple, optional
         :func:`hour_slots` of ``vd["time"]`` when the caller has them (default:
         computed here, about 0.6 ms a year of hours).
+    classes : xarray.DataArray or ndarray of int, optional
+        The land-use class in force over each hour (``land_use_in_force`` of a site
+        whose surface changed, :func:`workbench.surfacehistory.in_force`), with the dims
+        of `vd`: an hour is filled from the hours of its own class only (both slots),
+        never from those of the class before or after a change in the same month.
+        Default: one class per row.
 
     Returns
     -------
@@ -96,22 +103,35 @@ def fill_diurnal(vd: xr.DataArray, min_slot_hours: int = MIN_SLOT_HOURS, slots=N
                                        else slots)
         n_rows, n_t = rows.shape
         base = np.arange(n_rows)[:, None]
+        if classes is not None:
+            # each (row, class in force) its own group of slots: the hours of another
+            # class never fill this one's (docs/methods_dry.md, the diurnal fill)
+            c = classes if not isinstance(classes, xr.DataArray) else (
+                classes.transpose(*v.dims) if set(classes.dims) == set(v.dims) else classes)
+            c = np.broadcast_to(np.asarray(getattr(c, "values", c)), shape).reshape(n_rows, n_t)
+            _, code = np.unique(c, return_inverse=True)
+            code = code.reshape(n_rows, n_t)
+            n_cls = int(code.max()) + 1 if code.size else 1
+            base = base * n_cls + code
+            n_rows_g = n_rows * n_cls
+        else:
+            n_rows_g = n_rows
 
         def slot_mean(slot, n_slots):
             idx = (base * n_slots + slot[None, :]).ravel()
             w = np.where(valid, rows, 0.0).ravel()
-            s = np.bincount(idx, weights=w, minlength=n_rows * n_slots).reshape(n_rows, n_slots)
+            s = np.bincount(idx, weights=w, minlength=n_rows_g * n_slots)
             c = np.bincount(idx, weights=valid.ravel().astype(float),
-                            minlength=n_rows * n_slots).reshape(n_rows, n_slots)
-            return s, c
+                            minlength=n_rows_g * n_slots)
+            return s, c, idx
 
-        s_y, c_y = slot_mean(slot_y, n_years * 288)
-        s_a, c_a = slot_mean(month_hour, 288)
+        s_y, c_y, i_y = slot_mean(slot_y, n_years * 288)
+        s_a, c_a, i_a = slot_mean(month_hour, 288)
         with np.errstate(invalid="ignore", divide="ignore"):
             mean_y = np.where(c_y >= min_slot_hours, s_y / c_y, np.nan)
             mean_a = np.where(c_a > 0, s_a / c_a, np.nan)
-        fill_y = mean_y[:, slot_y]
-        fill_a = mean_a[:, month_hour]
+        fill_y = mean_y[i_y].reshape(n_rows, n_t)
+        fill_a = mean_a[i_a].reshape(n_rows, n_t)
         fill = np.where(np.isfinite(fill_y), fill_y, fill_a)
         out = np.where(valid, rows, fill)
         was = ~valid & np.isfinite(out)

@@ -41,7 +41,7 @@ from .drycomponents import dry_components, dry_rows
 from .graph import Graph, Node, content_digest, input_node, token
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
-from .surfacehistory import earlier_classes, land_use_history
+from .surfacehistory import collector_history, earlier_classes, land_use_history, mast_history
 from .tables import budget_table, span_table
 
 #: Kept for older imports: the wet options of the wet chain alone.
@@ -283,6 +283,11 @@ class Study:
         # hour (docs/data_formats.md, "A long record"; workbench/surfacehistory.py)
         surf_h = self._run("history_surfaces", deps={"catalogue": self._catalogue_node(overrides)},
                            params={"history": history})
+        mast = mast_history(self.catalogue(overrides), history)
+        if mast:
+            # the wind mast of a site without met_land_use stands over its own surface:
+            # its z0 and d follow the history hour by hour too (workbench/surfacehistory.py)
+            met = self._run("mast_in_force", deps={"met": met}, params={"history": mast})
         every = tuple(str(r) for r in surf.value["receptor"].values)
         shown = every if receptors is None else tuple(receptors)
         extra = tuple(dict.fromkeys(c for cs in earlier_classes(history).values() for c in cs
@@ -365,6 +370,12 @@ class Study:
             scheme = vd.value.attrs.get("gas_scheme", "model")
             return Node("vd_content:" + d.value, (vd.value[var], scheme))
 
+        # a site's own surface that changed class inside the record: each hour's Vd is
+        # filled from the hours of its class in force only (docs/methods_dry.md)
+        lu = None if vd.value is None else vd.value.get("land_use_in_force")
+        fill_deps = {"slots": slots}
+        if lu is not None and bool((lu != lu.isel(time=0)).any()):
+            fill_deps["classes"] = content("land_use_in_force")
         out = {}
         for sp in dry_species:
             if sp in fixed_velocity:
@@ -373,14 +384,14 @@ class Study:
                 out[sp] = self._run("vd_fill", opts, {"vd": axes, "slots": slots},
                                     {"name": sp, "fixed": fixed_velocity[sp], "sites": ids})
             elif vd.value is not None and f"vd_{sp}" in vd.value:
-                out[sp] = self._run("vd_fill", opts, {"vd": content(f"vd_{sp}"), "slots": slots},
+                out[sp] = self._run("vd_fill", opts, {"vd": content(f"vd_{sp}"), **fill_deps},
                                     {"name": sp, "fixed": None, "sites": ids})
         if (getattr(dry_options, "nh3_treatment", "") == "bidirectional" and vd.value is not None
                 and "vd_NH3_bidirectional" in vd.value and "NH3" in out
                 and "NH3" not in fixed_velocity):                   # the net NH3 flux
             for name, var in _stages.NH3_EXCHANGE.items():
                 if var in vd.value:
-                    out[name] = self._run("vd_fill", opts, {"vd": content(var), "slots": slots},
+                    out[name] = self._run("vd_fill", opts, {"vd": content(var), **fill_deps},
                                           {"name": name, "fixed": None, "sites": ids})
         return out
 
@@ -497,12 +508,23 @@ class Study:
         rows = self._dry_rows_node(dry_options, budget_options, fixed_velocity, overrides,
                                    receptors, vel)
 
+        c_history = collector_history(cat.value)
+
         def one(table, season_cov):
             wet = self._wet_node(wet_options, table)
             dry = self._dry_node(rows, table)
-            ds = self._run("budget", opts, {"wet": wet, "dry": dry, "catalogue": cat,
-                                            "periods": table, "season_cov": season_cov},
-                           {"receptors": shown})
+            deps = {"wet": wet, "dry": dry, "catalogue": cat, "periods": table,
+                    "season_cov": season_cov}
+            if c_history and wet.value is not None:
+                # a collector changed: each sample under its own collector's rules
+                # (docs/budget.md, "Bulk collectors"; workbench/surfacehistory.py)
+                deps["collector"] = self._run(
+                    "collector_split", {"wet": wet_options},
+                    {"screened": self._screened_node(wet_options), "periods": table,
+                     "met": self._input("met", self.inputs.met)},
+                    {"history": c_history,
+                     "collectors": tuple((s.id, s.collector) for s in cat.value)})
+            ds = self._run("budget", opts, deps, {"receptors": shown})
             return ds, wet
 
         season_cov = self._season_node(rows, years, hy)

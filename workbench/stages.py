@@ -99,6 +99,15 @@ def history_surfaces(o, catalogue, history):
     return history_catalogue(catalogue, history).surfaces()
 
 
+@stage("mast_in_force")
+def mast_in_force(o, met, history):
+    """The met with the class under the wind mast over each hour where it follows the
+    site's declared land-use changes (`history`: :func:`workbench.surfacehistory.mast_history`,
+    the sites without ``met_land_use``): :func:`workbench.surfacehistory.mast_in_force`."""
+    from .surfacehistory import mast_in_force as _mast
+    return _mast(met, history)
+
+
 @stage("land_use_in_force")
 def land_use_in_force(o, velocities, surfaces, history, receptors, wanted):
     """The velocities with each site's own surface under the class in force at each hour
@@ -317,12 +326,15 @@ def met_hour_slots(o, met):
 
 
 @stage("vd_fill", reads={"budget": ("min_slot_hours",)}, counts_as="dry")
-def vd_fill(o, vd, name, fixed, sites, slots=None):
+def vd_fill(o, vd, name, fixed, sites, slots=None, classes=None):
     """Gap-filled hourly Vd of a species (its mean diurnal cycle), or a fixed Vd.
 
     `vd` is ``(DataArray, scheme)`` of the model or, for a fixed Vd, the
-    ``(ids, receptors, times)`` axes; `slots` the ``hour_slots`` of its time axis.
+    ``(ids, receptors, times)`` axes; `slots` the ``hour_slots`` of its time axis;
+    `classes` ``(DataArray, scheme)`` of ``land_use_in_force`` when a site's own surface
+    changed class inside the record: each hour is filled from its class's hours only.
     """
+    cls = None if classes is None else classes[0]
     min_slot = o.budget.min_slot_hours
     if fixed is not None:
         ids, receptors, times = vd
@@ -332,11 +344,11 @@ def vd_fill(o, vd, name, fixed, sites, slots=None):
                                         "time": times})
         got = prepare_velocities(None, [name], {name: fixed}, min_slot, template, slots)[name]
     elif name in NH3_EXCHANGE:
-        filled, was = fill_diurnal(vd[0].load(), min_slot, slots)
+        filled, was = fill_diurnal(vd[0].load(), min_slot, slots, cls)
         got = (filled, was, "nh3 compensation point")
     else:
         ds = xr.Dataset({f"vd_{name}": vd[0]}, attrs={"gas_scheme": vd[1]})
-        got = prepare_velocities(ds, [name], {}, min_slot, slots=slots)[name]
+        got = prepare_velocities(ds, [name], {}, min_slot, slots=slots, classes=cls)[name]
     return fill_arrays(*got, sites)
 
 
@@ -355,10 +367,22 @@ def season_coverage(o, dry_months, months, years):
     return out
 
 
+@stage("collector_split", reads={"wet": ("straddle", "seasalt_tracer")})
+def collector_split(o, screened, periods, met, history, collectors):
+    """The bulk part of each period's wet deposition, sample by sample, at the sites
+    whose collector changed (`history`: :func:`workbench.surfacehistory.collector_history`;
+    `collectors`: ``((site, collector now), ...)``), as
+    :func:`workbench.surfacehistory.collector_split` gives it."""
+    from .surfacehistory import collector_split as _split
+    return _split(screened, periods, o.wet, met, history, dict(collectors))
+
+
 @stage("budget", reads={"budget": BUDGET_OPTIONS}, counts_as="budget")
-def budget(o, wet, dry, catalogue, periods, season_cov, receptors):
-    """Wet + dry components per site, receptor and period, totals and status."""
-    return assemble(wet, dry, catalogue, periods, o.budget, list(receptors), season_cov)
+def budget(o, wet, dry, catalogue, periods, season_cov, receptors, collector=None):
+    """Wet + dry components per site, receptor and period, totals and status
+    (`collector`: the ``collector_split`` stage at sites whose collector changed)."""
+    return assemble(wet, dry, catalogue, periods, o.budget, list(receptors), season_cov,
+                    collector=collector)
 
 
 @stage("derived")

@@ -174,6 +174,10 @@ def test_csv_bad_input(tmp_path, case):
 
 
 # --------------------------------------------------------------------- site catalogue
+_ALPHA_TAIL = ('wind_height_m = 10.0\nsampler_height_m = 3.0\nutc_offset_h = 1\n'
+               'receptors = ["conifer_forest"]\n')
+_FELLED = ('\n[[site.change]]\ndate = 2015-01-01\nwhat = "land_use"\nfrom = "conifer_forest"\n'
+           'to = "grass"\n')
 SITE_CASES = {
     "roughness_zero": (("utc_offset_h = 0\n", "utc_offset_h = 0\nroughness_length_m = 0.0\n"),
                        "line 29, column 'roughness_length_m': roughness length not positive: "
@@ -190,6 +194,22 @@ SITE_CASES = {
         ("utc_offset_h = 1\n", "utc_offset_h = 1\nroughness_length_m = 12.0\n"),
         "line 9, column 'wind_height_m': anemometer within the roughness length above d: "
         "got '10.0', expected wind_height_m - d"),
+    # no met_land_use: the mast follows the land use, so before the change it stood over
+    # the forest (class defaults: d = 11.6 m, z0 = 1.09 m), named with the period
+    "anemometer_below_d_of_an_earlier_class": (
+        (_ALPHA_TAIL, _ALPHA_TAIL + _FELLED),
+        "line 17, column 'change.from': anemometer at or below the displacement height of "
+        "the mast's surface before a land-use change: got 'conifer_forest', expected "
+        "wind_height_m 10 m above the displacement height d = 11.6 m of the mast's surface "
+        "'conifer_forest' until 2015-01-01 (class defaults; met_land_use is not given, so "
+        "the mast follows the site's land use), or met_land_use = the class that stood "
+        "under the mast"),
+    "anemometer_inside_z0_of_an_earlier_class": (
+        (_ALPHA_TAIL, _ALPHA_TAIL.replace("10.0", "12.0") + _FELLED),
+        "line 17, column 'change.from': anemometer within the roughness length above d of "
+        "the mast's surface before a land-use change: got 'conifer_forest', expected "
+        "wind_height_m - d (0.418 m) larger than z0 = 1.09 m of 'conifer_forest' until "
+        "2015-01-01, or met_land_use given"),
     "slope_95_degrees": (("utc_offset_h = 0\n", "utc_offset_h = 0\nterrain_slope_deg = 95\n"),
                          "line 29, column 'terrain_slope_deg': terrain slope outside 0-90 "
                          "degrees: got '95', expected an angle in degrees from 0 to below 90"),
@@ -250,6 +270,10 @@ SITE_HINTS = {
     "sampler_in_canopy": (("sampler_height_m = 25.0", "sampler_height_m = 5.0"),
                           "site 'beta': the air sampler inlet (5 m) is at or below the "
                           "displacement height (15.4 m)"),
+    "anemometer_below_canopy_of_an_earlier_class": (
+        (_ALPHA_TAIL, _ALPHA_TAIL.replace("10.0", "14.0") + _FELLED),
+        "site 'alpha': the anemometer (14 m) is below the canopy top (15 m) of the mast's "
+        "surface 'conifer_forest' until 2015-01-01"),
     "position_placeholder": (("latitude = 52.0\nlongitude = 5.0", "latitude = 0\nlongitude = 0"),
                              "site 'alpha': latitude and longitude are both 0: a placeholder?"),
 }

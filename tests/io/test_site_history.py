@@ -13,8 +13,11 @@ from workbench.io.sites import read_sites
 
 
 def _catalogue(tmp_path, changes: str):
+    # a 25 m mast: without met_land_use it stood over the forest before a felling too
+    # (its anemometer above the forest's displacement height)
     p = tmp_path / "sites.toml"
-    p.write_text(alpha_site("grass") + changes)
+    p.write_text(alpha_site("grass").replace("wind_height_m = 10.0", "wind_height_m = 25.0")
+                 + changes)
     return p
 
 
@@ -224,5 +227,7 @@ to = "wet_only"
     assert "land_use changed on 2014-04-01 (conifer_forest -> grass)" in land
     assert "computed as 'conifer_forest' until 2014-04-01 00:00 UTC and 'grass'" in land
     assert "sums both parts" in land and "run of their own" not in coll
-    assert "under the collector in force ('bulk' until 2011-01-01" in coll
+    assert "under the collector in force over its dates ('bulk' until 2011-01-01" in coll
+    assert "the wind mast (met_land_use not given) stands over that surface and follows " \
+        "it too ('conifer_forest' until 2014-04-01" in land
     assert surface_notes(cat, np.datetime64("2015-01-01"), np.datetime64("2020-01-01")) == []

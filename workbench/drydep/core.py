@@ -74,6 +74,10 @@ MET_VARIABLES = ("wind_speed", "temperature", "relative_humidity", "solar_radiat
 #: (:func:`workbench.drydep.particle_fractions.hourly_sampler_fractions`).
 AIR_DERIVED = ("nh3_so2_ratio", "nh3_acid_ratio") + tuple(f"coarse_fraction_{sp}" for sp in
                                          ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa"))
+#: Hourly inputs derived from the site's declared history (site, time), read when
+#: present: the class under the wind mast where it follows the land use
+#: (:func:`workbench.surfacehistory.mast_in_force`; -1 the surface of the catalogue).
+HISTORY_DERIVED = ("met_land_use_in_force",)
 #: The hours counted of :func:`velocities` (site, receptor or site) and the hourly flag
 #: each counts.
 COUNT_FLAGS = {"n_ustar_floor": "ustar_floor_used", "n_ra_cap": "ra_cap_used",
@@ -597,7 +601,7 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
                  "precipitation"):
         if name not in met:
             raise ValueError(f"met has no {name!r}; see docs/data_model.md")
-    aug = met[[v for v in MET_VARIABLES + AIR_DERIVED if v in met]]
+    aug = met[[v for v in MET_VARIABLES + AIR_DERIVED + HISTORY_DERIVED if v in met]]
     lazy = any(v.chunks is not None for v in aug.data_vars.values())
     if lazy:
         # the steps that look across hours, on the whole record (lazily); in memory

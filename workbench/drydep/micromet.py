@@ -78,10 +78,18 @@ def surface_layer(opt, block, surf, met_surf, receptors, st, site) -> dict:
     # --- 3. the wind mast's surface ----------------------------------------------------
     met_names, z0_ms, d_m = _receptors.met_surface(
         met_surf, [str(r) for r in met_surf["receptor"].values], opt)
-    d_m = d_m[:, None, None]
+    z0_ms, d_m = z0_ms[:, None, None], d_m[:, None, None]
+    alb_m = np.array([eb.ALBEDO[m] for m in met_names])[:, None, None]
+    alpha_m = np.array([eb.PT_ALPHA[m] for m in met_names])[:, None, None]
+    if "met_land_use_in_force" in block:
+        # the mast over an earlier class of the site's own surface in some hours
+        # (a declared land-use change, met_land_use not given): its z0, d, albedo and
+        # Priestley-Taylor alpha hour by hour, the class defaults as for the own surface
+        z0_ms, d_m, alb_m, alpha_m = _receptors.mast_in_force(
+            st("met_land_use_in_force"), z0_ms, d_m, alb_m, alpha_m, opt)
     z_wind = site("wind_height")
-    met_water = np.isnan(z0_ms)[:, None, None]
-    z0_m = np.where(met_water, CHARNOCK_START_Z0, z0_ms[:, None, None]) + 0.0 * u
+    met_water = np.isnan(z0_ms)
+    z0_m = np.where(met_water, CHARNOCK_START_Z0, z0_ms) + 0.0 * u
     if met_water.any():
         z0_w = CHARNOCK_START_Z0 + 0.0 * u
         for _ in range(opt.charnock_iterations):
@@ -91,8 +99,6 @@ def surface_layer(opt, block, surf, met_surf, receptors, st, site) -> dict:
     z_eff = np.maximum(z_wind - d_m, opt.ra_min_height_z0 * z0_m)
     us_meas, h_meas = st("friction_velocity"), st("sensible_heat_flux")
     has_us, has_h = ~np.isnan(us_meas), ~np.isnan(h_meas)
-    alb_m = np.array([eb.ALBEDO[m] for m in met_names])[:, None, None]
-    alpha_m = np.array([eb.PT_ALPHA[m] for m in met_names])[:, None, None]
     alb_m = np.where(snow > 0.5, eb.SNOW_ALBEDO, alb_m)
     h_pt_m = eb.sensible_heat_flux(eb.net_radiation(k_down, temp, cloud, alb_m), temp, pres,
                                    alpha_m)

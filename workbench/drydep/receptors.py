@@ -35,6 +35,43 @@ def met_surface(surf, receptors, opt):
     return names, np.asarray(z0, float), np.asarray(d, float)
 
 
+def mast_in_force(code, z0, d, albedo, alpha, opt):
+    """The wind mast's surface hour by hour where it follows the site's land use.
+
+    Parameters
+    ----------
+    code : ndarray
+        (site, 1, time) position in :data:`workbench.surfacehistory.CLASSES` of the class
+        under the mast in each hour, -1 (or NaN) where it is the declared surface.
+    z0, d, albedo, alpha : ndarray
+        (site, 1, 1) roughness length [m], displacement height [m], albedo [1] and
+        Priestley-Taylor alpha [1] of the declared mast surface.
+    opt : DryOptions
+
+    Returns
+    -------
+    tuple of ndarray
+        z0, d, albedo, alpha (site, 1, time): of the class in force (its class
+        defaults: the land-use table's canopy height, z0 and d from the roughness rule)
+        in the hours of an earlier class, the declared ones elsewhere.
+    """
+    from ..surface import energy_balance as eb
+    code = np.where(np.isfinite(code), code, -1).astype(int)
+    names = list(LAND_USE)
+    z0 = z0 + 0.0 * code
+    d, albedo, alpha = d + 0.0 * code, albedo + 0.0 * code, alpha + 0.0 * code
+    for c in np.unique(code[code >= 0]):          # the few classes, each over every hour
+        m = names[int(c)]
+        z0_c, d_c = land_use_roughness([m], np.array([LAND_USE[m][1]]), np.array([np.nan]),
+                                       np.array([np.nan]), opt.roughness)
+        here = code == c
+        z0 = np.where(here, float(np.asarray(z0_c)[0]), z0)
+        d = np.where(here, float(np.asarray(d_c)[0]), d)
+        albedo = np.where(here, eb.ALBEDO[m], albedo)
+        alpha = np.where(here, eb.PT_ALPHA[m], alpha)
+    return z0, d, albedo, alpha
+
+
 def receptor_transfers(surf, receptors, opt):
     """The transfer of u* of each site and receptor (site, receptor) [-].
 

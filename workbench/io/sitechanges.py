@@ -258,12 +258,17 @@ def surface_notes(catalogue, start, end) -> list[str]:
                        "the class defaults of the land-use table); a period holding the change "
                        "sums both parts and its note says so")
                 if site.met_land_use is None:
-                    how += (f"; the wind mast's surface (met_land_use, not given) is taken as "
-                            f"{site.land_use!r} in every hour")
+                    how += (f"; the wind mast (met_land_use not given) stands over that "
+                            f"surface and follows it too ({ch.before!r} until {d}: its z0 "
+                            "and d carry u* to the receptors); give met_land_use if the "
+                            "mast stood over another surface all along")
             else:
-                how = (f"each period is budgeted under the collector in force ({ch.before!r} "
-                       f"until {d}, {ch.after!r} from then on); a period holding the change "
-                       "takes the bulk rule on its bulk share of hours and is flagged")
+                how = (f"each precipitation sample is budgeted under the collector in force "
+                       f"over its dates ({ch.before!r} until {d}, {ch.after!r} from then "
+                       "on; a sample ending on that day is the old collector's, one starting "
+                       "on it the new one's); a period holding the change sums its samples "
+                       "under their own rules, and only a sample holding the whole day is "
+                       "split by its hours (flagged)")
             out.append(f"site {site.id}: {ch.what} changed on {d} ({ch.before} -> {ch.after}): "
                        f"{how} (docs/data_formats.md, \"A long record\")")
     return out

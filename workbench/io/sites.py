@@ -470,6 +470,7 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None,
         def change_err(problem, j, key, value=None, expected=None):
             return err(problem, "change", value, expected)
     changes = check_changes(t, change_err, cl_notes, label)
+    _mast_history_geometry(t, changes, change_err, cl_notes, label)
     return Site(
         id=t["id"], name=t["name"], latitude=float(t["latitude"]),
         longitude=float(t["longitude"]), elevation_m=float(t["elevation_m"]),
@@ -584,6 +585,48 @@ def _geometry(t, err, notes, label):
                      f"{mast!r}: an in-canopy concentration?")
     if t["latitude"] == 0 and t["longitude"] == 0:
         notes.append(f"{label}: latitude and longitude are both 0: a placeholder?")
+
+
+def _mast_history_geometry(t, changes, change_err, notes, label):
+    """The anemometer against every class the wind mast's surface takes in the site's
+    history: without ``met_land_use`` the mast stands over the site's own surface, which
+    before a land-use change was the ``from`` class, with its class defaults
+    (workbench/surfacehistory.py, ``mast_in_force``).  An error located at the change's
+    ``from`` names the class and the period; a doubtful height is a hint."""
+    if t.get("met_land_use") is not None:
+        return
+    from ..surface.roughness import land_use_roughness
+    lu_changes = [c for c in changes if c.what == "land_use"]
+    tables = t.get("change", [])
+    z_wind = float(t["wind_height_m"])
+    start = None
+    for c in lu_changes:
+        mast = c.before
+        z0_m, d_m = land_use_roughness(mast, LAND_USE[mast][1], np.nan, np.nan)
+        z0_m, d_m = float(z0_m), float(d_m)
+        when = (f"until {c.date.isoformat()}" if start is None
+                else f"from {start} until {c.date.isoformat()}")
+        j = next((k for k, tb in enumerate(tables) if isinstance(tb, dict)
+                  and tb.get("what") == "land_use" and tb.get("from") == c.before
+                  and str(tb.get("date")) == c.date.isoformat()), 0)
+        if z_wind <= d_m:
+            raise change_err("anemometer at or below the displacement height of the mast's "
+                             "surface before a land-use change", j, "from", mast,
+                             f"wind_height_m {z_wind:g} m above the displacement height "
+                             f"d = {d_m:.3g} m of the mast's surface {mast!r} {when} (class "
+                             "defaults; met_land_use is not given, so the mast follows the "
+                             "site's land use), or met_land_use = the class that stood under "
+                             "the mast")
+        if np.isfinite(z0_m) and z_wind - d_m <= z0_m:
+            raise change_err("anemometer within the roughness length above d of the mast's "
+                             "surface before a land-use change", j, "from", mast,
+                             f"wind_height_m - d ({z_wind - d_m:.3g} m) larger than z0 = "
+                             f"{z0_m:.3g} m of {mast!r} {when}, or met_land_use given")
+        if z_wind < LAND_USE[mast][1]:
+            notes.append(f"{label}: the anemometer ({z_wind:g} m) is below the canopy top "
+                         f"({LAND_USE[mast][1]:g} m) of the mast's surface {mast!r} {when}: "
+                         "the log wind profile is doubtful there (roughness sublayer)")
+        start = c.date.isoformat()
 
 
 def site_dict(site: Site) -> dict:
