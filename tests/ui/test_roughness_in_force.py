@@ -80,3 +80,22 @@ def test_the_control_starts_at_the_value_in_force(session):
     app.reset()
     assert w.value is None and w._num.value == pytest.approx(z0, rel=1e-9)
     assert ASSUMPTIONS[KEY].get(app.settings, "ridge") is None
+
+
+def test_the_roughness_sweep_marks_the_z0_in_force(session):
+    """The sensitivity explorer drew the roughness baseline as "left to the model" (a
+    dotted line) although the z0 in force is known: now a star at it, with its source;
+    its totals are those of the run with no roughness set."""
+    from workbench.ui.apps import SensitivityExplorer
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        sens = SensitivityExplorer(session, site="ridge", years=(2021, 2021), key=KEY)
+    z0, source = session.in_force(KEY, session.baseline, "ridge")
+    assert f"Baseline: {z0:.3g}, in force (" in sens.note_w.value
+    assert "Raupach 1994" in sens.note_w.value
+    at = sens.table[np.isclose(sens.table["value"].astype(float), z0)]
+    unset = session.sweep(KEY, [None], session.baseline, "ridge", 2021, 2021,
+                          sens.receptor_w.value, sens.unit_w.value)
+    for total in ("S_total", "N_total"):
+        assert at.loc[at["total"] == total, "rate"].iloc[0] == pytest.approx(
+            unset.loc[unset["total"] == total, "rate"].iloc[0], rel=1e-9)
