@@ -467,6 +467,14 @@ def test_a_failed_open_saved_and_reopened_shows_no_raw_line(lab, token, page):
         "() => /\\| Idle/.test(document.querySelector('#jp-main-statusbar')?.innerText || '')")
     page.evaluate("window.jupyterapp.commands.execute('docmanager:save')")
     page.wait_for_timeout(1000)
+    # the plain text the saved file keeps for each output (what a viewer without the
+    # widgets' state shows)
+    status, body = _get(f"{lab}/api/contents/critical_loads_bad.ipynb?content=1", token)
+    saved = [o.get("data", {}).get("text/plain", "") or o.get("text", "") or o.get("evalue", "")
+             for c in json.loads(body)["content"]["cells"] for o in c.get("outputs", [])]
+    saved = ["".join(t) if isinstance(t, list) else t for t in saved]
+    assert any("no_such_sites.toml" in t for t in saved), saved
+    assert not [t for t in saved if "Progress(" in t or "children=" in t], saved
     _close_sessions(lab, token)
     page.reload()
     page.wait_for_selector(".jp-OutputArea-output:has-text('no_such_sites.toml')")
