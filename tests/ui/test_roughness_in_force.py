@@ -68,17 +68,17 @@ def test_the_control_starts_at_the_value_in_force(session):
     w = app.controls[KEY]
     z0, source = session.in_force(KEY, app.settings, "ridge")
     assert w.value is None and w._num.disabled
-    assert w._num.value == pytest.approx(z0, rel=1e-9)       # not 0.01
+    assert w._num.value == float(f"{z0:.3g}")              # not 0.01; as the line says
     assert f"unset: {z0:.3g}" in w._source.value and "Raupach 1994" in w._source.value
     before = app._current_totals()["value"].to_numpy()
     w._box.value = True                   # set, at the value in force: the same totals
-    assert w.value == pytest.approx(z0, rel=1e-9)
-    assert app.settings.overrides["ridge"]["roughness_length_m"] == pytest.approx(z0, rel=1e-9)
-    np.testing.assert_allclose(app._current_totals()["value"].to_numpy(), before, rtol=1e-9)
+    assert w.value == pytest.approx(z0, rel=5e-3)
+    assert app.settings.overrides["ridge"]["roughness_length_m"] == pytest.approx(z0, rel=5e-3)
+    np.testing.assert_allclose(app._current_totals()["value"].to_numpy(), before, rtol=1e-3)
     w._num.value = 0.1                    # then moved: the totals follow
     assert not np.allclose(app._current_totals()["value"].to_numpy(), before, rtol=1e-3)
     app.reset()
-    assert w.value is None and w._num.value == pytest.approx(z0, rel=1e-9)
+    assert w.value is None and w._num.value == float(f"{z0:.3g}")
     assert ASSUMPTIONS[KEY].get(app.settings, "ridge") is None
 
 

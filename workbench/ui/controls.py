@@ -83,7 +83,9 @@ class OptionalFloat(widgets.HBox):
         source in words; the number field shows it while the box is unchecked."""
         lo, hi = self._bounds
         if value is not None:
-            self.default = min(max(float(value), lo), hi)
+            # 3 significant digits, as said on the line below (the field showed
+            # "1.020072605427", cut)
+            self.default = min(max(float(f"{float(value):.3g}"), lo), hi)
         self.source = source
         shown = f"{value:.3g}" if value is not None else "none fixed"
         self._source.value = (f"<small>unset: {html.escape(shown)} "
