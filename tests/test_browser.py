@@ -105,6 +105,13 @@ def lab(tmp_path_factory, token):
     nb.metadata.pop("widgets", None)
     nb.cells.insert(1, nbformat.v4.new_code_cell(f'SCENARIO = r"{one.parent}/scenari.toml"'))
     nbformat.write(nb, root / "critical_loads_typo.ipynb")
+    # a scenario file that is there but names an input that is not: the open fails after
+    # its progress bar is shown (defect: the saved notebook read "Progress(children=...")
+    bad = tmp / "bad" / "scenario.toml"
+    bad.parent.mkdir()
+    bad.write_text('[inputs]\nsites = "no_such_sites.toml"\n')
+    nb.cells[1] = nbformat.v4.new_code_cell(f'SCENARIO = r"{bad}"')
+    nbformat.write(nb, root / "critical_loads_bad.ipynb")
     port = _free_port()
     env = dict(os.environ, JUPYTER_CONFIG_DIR=str(cfg / "config"),
                JUPYTER_RUNTIME_DIR=str(cfg / "runtime"), IPYTHONDIR=str(cfg / "ipython"))
@@ -442,4 +449,38 @@ def test_a_typo_in_the_first_cell_is_one_message_and_plain_words_after(lab, toke
     assert any(t.startswith("ScenarioError: SCENARIO = ") and "scenari.toml" in t
                for t in errors), errors
     assert errors[-1].startswith("Nothing to show: 'app' was not made"), errors
+    _close_sessions(lab, token)
+
+
+def test_a_failed_open_saved_and_reopened_shows_no_raw_line(lab, token, page):
+    """Run All on a scenario whose input is missing, save, close the kernel and open the
+    notebook again, as a colleague opens the saved file: the open cell's output is the
+    one located message; the progress bar left no "Progress(children=(FloatProgress..."
+    line (ipywidgets' repr, the plain text kept of a widget)."""
+    page.goto(f"{lab}/lab/tree/critical_loads_bad.ipynb?token={token}&reset")
+    page.wait_for_selector(".jp-Notebook .jp-Cell")
+    page.wait_for_function(
+        "() => /\\| Idle/.test(document.querySelector('#jp-main-statusbar')?.innerText || '')")
+    page.evaluate("window.jupyterapp.commands.execute('notebook:run-all-cells')")
+    page.wait_for_selector(".jp-OutputArea-output:has-text('no_such_sites.toml')")
+    page.wait_for_function(
+        "() => /\\| Idle/.test(document.querySelector('#jp-main-statusbar')?.innerText || '')")
+    page.evaluate("window.jupyterapp.commands.execute('docmanager:save')")
+    page.wait_for_timeout(1000)
+    # the plain text the saved file keeps for each output (what a viewer without the
+    # widgets' state shows)
+    status, body = _get(f"{lab}/api/contents/critical_loads_bad.ipynb?content=1", token)
+    saved = [o.get("data", {}).get("text/plain", "") or o.get("text", "") or o.get("evalue", "")
+             for c in json.loads(body)["content"]["cells"] for o in c.get("outputs", [])]
+    saved = ["".join(t) if isinstance(t, list) else t for t in saved]
+    assert any("no_such_sites.toml" in t for t in saved), saved
+    assert not [t for t in saved if "Progress(" in t or "children=" in t], saved
+    _close_sessions(lab, token)
+    page.reload()
+    page.wait_for_selector(".jp-OutputArea-output:has-text('no_such_sites.toml')")
+    texts = page.evaluate("() => [...document.querySelectorAll('.jp-OutputArea-output')]"
+                          ".map(e => e.innerText.trim()).filter(t => t)")
+    joined = "\n".join(texts)
+    assert "Progress(" not in joined and "children=" not in joined, texts
+    assert "Traceback" not in joined, texts
     _close_sessions(lab, token)

@@ -89,3 +89,37 @@ def test_a_period_the_grid_has_not_is_one_located_line(out, period):
 def test_a_period_by_position_or_label(out, period, k):
     assert grid_map_spec(out, "dry_N", period)["layout"]["title"]["text"].endswith(
         ("2021-07", "2021-08")[k])
+
+
+def test_a_mistyped_grid_name_suggests_none_for_the_demo_grid(tmp_path):
+    """The grid notebook's SCENARIO mistyped: the message told to write "demo" (the
+    site network, which has no grid) although None gives the demo grid there."""
+    from workbench.errors import ScenarioError
+    from workbench.ui.figures_grid import open_maps
+    with pytest.raises(ScenarioError) as exc:
+        open_maps(str(tmp_path / "gird.toml"))
+    text = str(exc.value)
+    assert text.startswith(f"SCENARIO = '{tmp_path / 'gird.toml'}': no such file or folder")
+    assert "to None for the invented demo grid" in text
+    assert '"demo"' not in text
+    assert "grid.nc of a finished `workbench grid` run" in text
+
+
+def test_the_grid_notebook_opens_a_grid_nc_or_its_run_folder(out, tmp_path, monkeypatch):
+    """Its first cell offers "the grid.nc of a finished `workbench grid` run": that path
+    was read as a scenario file ("not UTF-8 text"), and its folder was refused."""
+    import workbench.grid_demo
+    from workbench.errors import ScenarioError
+    from workbench.ui.figures_grid import open_maps
+    (tmp_path / "run").mkdir()
+    out.to_netcdf(tmp_path / "run" / "grid.nc")
+    for given in (tmp_path / "run" / "grid.nc", tmp_path / "run"):
+        maps = open_maps(str(given))
+        np.testing.assert_array_equal(maps["dry_N"].values, out["dry_N"].values)
+    with pytest.raises(ScenarioError, match="a folder without grid.nc"):
+        open_maps(str(tmp_path))
+    asked = []                          # "demo" there: the demo grid, as None
+    monkeypatch.setattr(workbench.grid_demo, "open_run",
+                        lambda sc=None, **kw: asked.append(sc) or out.copy())
+    maps = open_maps("demo")
+    assert asked == [None] and not maps.attrs.get("workbench_shown_instead")

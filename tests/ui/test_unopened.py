@@ -68,3 +68,24 @@ def test_later_cells_after_a_bad_input_say_nothing_to_show(shell, capsys):
     assert "Nothing to show: 'sobol' was not made" in capsys.readouterr().out
     res = shell.run_cell("undefined_name")        # a user's own slip: Python's message
     assert isinstance(res.error_in_exec, NameError)
+
+
+def test_a_failed_open_leaves_no_raw_widget_line(shell, capsys, tmp_path):
+    """The progress bar of a failed open stays in the cell's output; a saved notebook
+    shows its plain text where no widget is drawn, and that read
+    "Progress(children=(FloatProgress(value=0.0, ..." (ipywidgets' repr, cut)."""
+    bad = tmp_path / "scenario.toml"
+    bad.write_text('[inputs]\nsites = "no_such_sites.toml"\n')
+    shell.run_cell("from workbench.ui.apps_analysis import CriticalLoadsExplorer\n"
+                   f"app = CriticalLoadsExplorer.from_scenario(r'{bad}')\n")
+    out = capsys.readouterr().out
+    assert "Error" in out                              # the one located message
+    assert "Progress(" not in out and "children=" not in out, out
+    assert "Traceback" not in out
+
+
+def test_the_progress_bar_has_no_plain_text():
+    from workbench.ui.controls import Progress
+    data = Progress()._repr_mimebundle_()
+    assert "application/vnd.jupyter.widget-view+json" in data
+    assert data["text/plain"] == ""

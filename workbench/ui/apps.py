@@ -110,7 +110,8 @@ class SiteExplorer(SavedText, widgets.VBox):
         for w, cls_ in ((self.site_w, "wb-site"), (self.receptor_w, "wb-receptor"),
                         (self.years_w, "wb-years"), (self.unit_w, "wb-unit")):
             w.add_class(cls_)
-        self.controls = {k: make_control(a, a.get(self.settings, site))
+        self.controls = {k: make_control(a, a.get(self.settings, site),
+                                         session.in_force(k, self.settings, site))
                          for k, a in ASSUMPTIONS.items()}
         self.change_w = widgets.HTML("", layout=widgets.Layout(min_height="1.6em"))
         self.change_w.add_class("wb-change")
@@ -388,6 +389,7 @@ class SiteExplorer(SavedText, widgets.VBox):
         for k, a in ASSUMPTIONS.items():
             if k.startswith("site."):
                 set_quietly(self.controls[k], a.get(self.settings, self.site), self._on_control)
+        self._show_in_force()
         years, moved = self.session.years_for(self.site, self.years)
         if moved:
             set_quietly(self.years_w, years, self._on_years)
@@ -428,7 +430,15 @@ class SiteExplorer(SavedText, widgets.VBox):
         self.settings = self.session.baseline
         for k, a in ASSUMPTIONS.items():
             set_quietly(self.controls[k], a.get(self.settings, self.site), self._on_control)
+        self._show_in_force()
         self.recompute("reset to the scenario")
+
+    def _show_in_force(self):
+        """The site's values in force (its roughness length) beside their controls."""
+        for k in ASSUMPTIONS:
+            known = self.session.in_force(k, self.settings, self.site)
+            if known is not None:
+                self.controls[k].set_default(*known)
 
     def save_scenario(self, path) -> Path:
         """Save the current settings and years as a scenario file (a relative path is

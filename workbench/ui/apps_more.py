@@ -158,6 +158,10 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         lo, hi = self.range_w.value if a.kind in ("float", "optional_float") else (None, None)
         values = sweep_values(a, lo, hi, self.steps_w.value)
         base = a.get(self.settings, site)
+        source = ""
+        known = self.session.in_force(a.key, self.settings, site) if base is None else None
+        if known is not None and known[0] is not None:   # z0 in force: its totals are the
+            base, source = known                         # baseline's, drawn as a star
         if base is not None and base not in values:
             values = sorted(values + [base]) if a.kind != "choice" else values
         self.progress.start(f"sweeping {a.label}" + (" (recomputes Vd each time)" if a.stage == "dry" else ""))
@@ -185,7 +189,8 @@ class SensitivityExplorer(SavedText, widgets.VBox):
                                   annotation_text="baseline (model)")
             self.note_w.value = "Baseline: left to the model or the catalogue (dotted line)."
         else:
-            self.note_w.value = f"Baseline: {html.escape(str(base_shown))} (star)."
+            self.note_w.value = f"Baseline: {html.escape(str(base_shown))} (star)." if not source \
+                else f"Baseline: {base:.3g}, in force ({html.escape(source)}) (star)."
         self.note_w.value += self._no_effect_note(a, values, site, years, rec)
         refresh(self.fig, fig)
         show = shown.pivot_table(index="value", columns="total", values="rate", sort=False)

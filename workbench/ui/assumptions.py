@@ -277,3 +277,61 @@ def apply(settings: Settings, site: str, changes: dict) -> Settings:
     for key, value in changes.items():
         settings = ASSUMPTIONS[key].set(settings, site, value)
     return settings
+
+
+#: Names of the roughness rules of :data:`workbench.surface.roughness.RULE`, in words,
+#: with their published sources (the module's docstring).
+_RULE_WORDS = {"forest": "forest rule, Raupach 1994", "canopy": "canopy rule, Brutsaert 1982",
+               "urban": "urban rule, Grimmond and Oke 1999",
+               "smooth": "smooth surface, Davenport-Wieringa class"}
+
+
+def roughness_in_force(record, table: dict, dry: DryOptions) -> tuple:
+    """The roughness length of a site's own surface when the app sets none, and its
+    source in words.
+
+    The order is the engine's (:func:`workbench.surface.roughness.land_use_roughness`):
+    the site's ``roughness_length_m`` of sites.toml, else the scenario's ``[dry]
+    roughness`` for the class, else the class rule on the canopy height (the
+    scenario's ``[sites.<id>] canopy_height_m`` where it gives one).
+
+    Parameters
+    ----------
+    record : workbench.io.sites.Site
+        The site as sites.toml has it.
+    table : dict
+        The site's override table of the settings (``[sites.<id>]`` and the app's
+        changes); its ``roughness_length_m`` is ignored (that is the value set).
+    dry : DryOptions
+
+    Returns
+    -------
+    (float or None, str)
+        z0 [m], None over open water (z0 follows u*, Charnock 1955), and e.g.
+        ``"forest rule, Raupach 1994: 0.073 x canopy height 12 m"``.
+    """
+    from ..surface.roughness import RULE, land_use_roughness
+    lu = record.land_use
+    if record.roughness_length_m is not None:
+        return float(record.roughness_length_m), f"roughness_length_m of {record.id} in sites.toml"
+    tab = (dry.roughness.get(lu) or (None, None))[0]
+    if tab is not None:
+        return float(tab), f"the scenario's [dry] roughness for {lu}"
+    rule = RULE[lu]
+    if rule == "charnock":
+        return None, "open water: z0 follows u* (Charnock 1955), no fixed value"
+    h = float(table.get("canopy_height_m", record.canopy_height_m))
+    z0 = float(land_use_roughness(lu, h)[0])
+    where = (f"canopy height of [sites.{record.id}] in the scenario" if "canopy_height_m" in table
+             else "canopy height")
+    if rule == "smooth":
+        return z0, f"{lu}: {_RULE_WORDS[rule]}"
+    f = _rule_fraction(rule)
+    if not h > 0 or abs(z0 - f * h) > 1e-9 * max(z0, 1.0):     # the smooth floor
+        return z0, f"{lu}: {_RULE_WORDS[rule]}, its floor for a {where} of {h:g} m"
+    return z0, f"{lu}: {_RULE_WORDS[rule]}, {f:.3g} x {where} {h:g} m"
+
+
+def _rule_fraction(rule) -> float:
+    from ..surface.roughness import CANOPY_RULE, FOREST_RULE, URBAN_RULE
+    return {"forest": FOREST_RULE, "canopy": CANOPY_RULE, "urban": URBAN_RULE}[rule][0]

@@ -46,11 +46,15 @@ class OptionalFloat(widgets.HBox):
     """A number that may be unset: a check box ("set") and a number field.
 
     ``value`` is None while the box is unchecked (the model or the catalogue decides).
+    The number field shows `default` while unchecked (the value in force, where one is
+    known: checking the box starts from it), and `source`, when given, is said on a
+    line below (:meth:`set_default`).
     """
 
     value = traitlets.Float(None, allow_none=True)
 
-    def __init__(self, value=None, description="", bounds=(0.0, 1.0, 0.01), default=None, **kw):
+    def __init__(self, value=None, description="", bounds=(0.0, 1.0, 0.01), default=None,
+                 source="", **kw):
         lo, hi, step = bounds
         start = default if default is not None else lo
         self._box = widgets.Checkbox(value=value is not None, description=description,
@@ -58,12 +62,40 @@ class OptionalFloat(widgets.HBox):
         self._num = widgets.BoundedFloatText(value=value if value is not None else start, min=lo,
                                              max=hi, step=step, disabled=value is None,
                                              layout=widgets.Layout(width="120px"))
-        super().__init__([self._box, self._num], **kw)
+        self._source = widgets.HTML("", layout=widgets.Layout(width="100%", margin="0 0 4px 4px"))
+        self._source.add_class("wb-in-force")
+        kw.setdefault("layout", widgets.Layout())
+        kw["layout"].flex_flow = "row wrap"            # the source on a line of its own
+        super().__init__([self._box, self._num, self._source], **kw)
+        self._bounds = (lo, hi)
+        self.default = start
+        self.source = ""
         self._syncing = False
+        if source:
+            self.set_default(default, source)
         self.value = value
         self._box.observe(self._from_parts, "value")
         self._num.observe(self._from_parts, "value")
         self.observe(self._to_parts, "value")
+
+    def set_default(self, value, source):
+        """The value in force while unset [the control's unit] (None: none fixed) and its
+        source in words; the number field shows it while the box is unchecked."""
+        lo, hi = self._bounds
+        if value is not None:
+            # 3 significant digits, as said on the line below (the field showed
+            # "1.020072605427", cut)
+            self.default = min(max(float(f"{float(value):.3g}"), lo), hi)
+        self.source = source
+        shown = f"{value:.3g}" if value is not None else "none fixed"
+        self._source.value = (f"<small>unset: {html.escape(shown)} "
+                              f"({html.escape(source)})</small>") if source else ""
+        if self.value is None:
+            self._syncing = True
+            try:
+                self._num.value = self.default
+            finally:
+                self._syncing = False
 
     def _from_parts(self, change):
         if self._syncing:
@@ -98,8 +130,11 @@ def select_room(control_width=CONTROL_WIDTH) -> int:
     return int(free // SELECT_CHAR_PX)
 
 
-def make_control(a: Assumption, value):
-    """The widget of an assumption, showing `value`; its ``.value`` is the setting."""
+def make_control(a: Assumption, value, in_force=None):
+    """The widget of an assumption, showing `value`; its ``.value`` is the setting.
+
+    `in_force`, for a number that may be unset: ``(value, source)`` of what holds while
+    it is (:meth:`workbench.ui.session.Session.in_force`)."""
     style = {"description_width": DESCRIPTION_WIDTH}
     layout = widgets.Layout(width=CONTROL_WIDTH)
     if a.kind == "choice":
@@ -118,6 +153,8 @@ def make_control(a: Assumption, value):
     elif a.kind == "optional_float":
         w = OptionalFloat(value, a.label, a.bounds, default=a.sweep[0] if a.sweep else None,
                           layout=layout)
+        if in_force is not None:
+            w.set_default(*in_force)
     else:
         raise ValueError(f"unknown kind of assumption {a.kind!r}")
     w.add_class(css_class(a.key))
@@ -155,6 +192,15 @@ class Progress(widgets.HBox):
         super().__init__([self.bar, self.label])
         self.add_class("wb-progress")
         self.started = time.perf_counter()
+
+    def _repr_mimebundle_(self, **kwargs):
+        """The bar in the page; nothing in a saved notebook's plain text (ipywidgets'
+        own was the repr cut at 110 characters, ``Progress(children=(FloatProgress(...``,
+        left in place of the bar of a failed open)."""
+        data = super()._repr_mimebundle_(**kwargs)
+        if data is not None:
+            data["text/plain"] = ""
+        return data
 
     def step(self, text, fraction=None):
         if fraction is not None:

@@ -141,7 +141,10 @@ def open_maps(scenario=None):
     Parameters
     ----------
     scenario : path, optional
-        A scenario file; None: the invented demo grid.
+        A scenario file, or the ``grid.nc`` of a finished ``workbench grid`` run or its
+        folder (opened as it is), found beside the notebook as
+        :func:`~workbench.ui.notebook_paths.grid_path` says; None or ``"demo"``: the
+        invented demo grid.
 
     Returns
     -------
@@ -151,12 +154,13 @@ def open_maps(scenario=None):
     from ..grid_demo import open_run
     from ..scenario import load_scenario
     from .controls import short_errors
-    from .notebook_paths import scenario_path
+    from .notebook_paths import grid_path
     short_errors()                         # a bad path or input: its one located line
-    if scenario is not None:
-        scenario = scenario_path(scenario)
+    scenario = grid_path(scenario)         # None: the demo grid
+    finished = scenario is not None and (scenario.is_dir() or scenario.suffix == ".nc")
     instead = ""
-    if scenario is not None and load_scenario(scenario).given.get("grid") is None:
+    if scenario is not None and not finished and \
+            load_scenario(scenario).given.get("grid") is None:
         instead = (f"invented demo grid: {scenario} has no [grid] section")
         scenario_run = None
     else:

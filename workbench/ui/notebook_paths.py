@@ -76,6 +76,23 @@ def scenario_path(value, notebook=None, cwd=None) -> Path:
     """
     if str(value).strip().lower() in DEMO_NAMES:
         return demo_scenario()
+    found, places, notebook = _find(value, notebook, cwd, folders=False)
+    if found is not None:
+        return found
+    if any(p.is_dir() for p in places):
+        hint = " It is a folder: name the scenario's .toml file inside it."
+    else:
+        hint = ""
+    raise ScenarioError(
+        f"SCENARIO = '{value}': no such scenario file (looked at {_looked(places)}).{hint} "
+        f"In the first cell, set SCENARIO to the path of your scenario file, "
+        f"{_where(notebook)}, or to \"demo\" for the invented demo network shipped with the "
+        "workbench.")
+
+
+def _find(value, notebook, cwd, folders):
+    """(the existing file, or folder when `folders`, else None; the places looked at;
+    the notebook file or None)."""
     path = Path(value).expanduser()
     notebook = notebook_file() if notebook is None else Path(notebook)
     cwd = Path.cwd() if cwd is None else Path(cwd)
@@ -84,16 +101,42 @@ def scenario_path(value, notebook=None, cwd=None) -> Path:
     else:
         places = ([notebook.parent / path] if notebook is not None else []) + [cwd / path]
     for p in places:
-        if p.is_file():
-            return p.resolve()
-    if path.is_dir() or any(p.is_dir() for p in places):
-        hint = " It is a folder: name the scenario's .toml file inside it."
-    else:
-        hint = ""
-    looked = " and ".join(f"'{p}'" for p in dict.fromkeys(places))
-    where = ("beside this notebook (or absolute)" if notebook is not None
-             else "in the folder the kernel runs in (or absolute)")
+        if p.is_file() or (folders and p.is_dir()):
+            return p.resolve(), places, notebook
+    return None, places, notebook
+
+
+def _looked(places) -> str:
+    return " and ".join(f"'{p}'" for p in dict.fromkeys(places))
+
+
+def _where(notebook) -> str:
+    return ("beside this notebook (or absolute)" if notebook is not None
+            else "in the folder the kernel runs in (or absolute)")
+
+
+def grid_path(value, notebook=None, cwd=None) -> Path | None:
+    """What the grid notebook's ``SCENARIO`` names: None for the invented demo grid
+    (also for ``"demo"``: the demo network has no grid, so the demo grid is what it
+    can mean there), else an existing scenario file, ``grid.nc`` or run folder, found
+    as :func:`scenario_path` finds a scenario.
+
+    Raises
+    ------
+    ScenarioError
+        When nothing is there; the message says what the grid notebook takes (a
+        mistyped name was told to write "demo", the site network, not the grid).
+    """
+    if value is None or str(value).strip().lower() in DEMO_NAMES:
+        return None
+    from ..grid_output import GRID_FILE
+    found, places, notebook = _find(value, notebook, cwd, folders=True)
+    if found is not None and (found.is_file() or (found / GRID_FILE).is_file()):
+        return found
+    what = (f"a folder without {GRID_FILE}" if found is not None
+            else "no such file or folder")
     raise ScenarioError(
-        f"SCENARIO = '{value}': no such scenario file (looked at {looked}).{hint} In the "
-        f"first cell, set SCENARIO to the path of your scenario file, {where}, or to "
-        f"\"demo\" for the invented demo network shipped with the workbench.")
+        f"SCENARIO = '{value}': {what} (looked at {_looked(places)}). In the "
+        "first cell, set SCENARIO to a scenario file with a [grid] section, or to the "
+        f"grid.nc of a finished `workbench grid` run or its folder, {_where(notebook)}; or "
+        "to None for the invented demo grid.")

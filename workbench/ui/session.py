@@ -156,6 +156,17 @@ class Session:
         shown = f"{n0}" if n0 == n1 else f"{n0}-{n1}"
         return (n0, n1), f"{site} has samples in {span} only: years set to {shown}"
 
+    def in_force(self, key, settings: Settings, site):
+        """``(value, source)`` of what holds for assumption `key` at `site` while the app
+        sets none, where the workbench knows one before running (the roughness length
+        of the site's own surface, :func:`~workbench.ui.assumptions.roughness_in_force`);
+        None for the others."""
+        if key != "site.roughness_length_m":
+            return None
+        from .assumptions import roughness_in_force
+        return roughness_in_force(self.study.inputs.catalogue[site],
+                                  settings.overrides.get(site, {}), settings.dry)
+
     def receptors(self, site) -> list:
         """The site's own surface first, then its further receptors."""
         return list(self.study.inputs.catalogue[site].surfaces)
