@@ -101,7 +101,7 @@ def record_whole(path) -> str:
     """Record the SHA-256 of `path` as it is now, for a reader that opens the file
     itself (NetCDF, zarr: read lazily by xarray, not as one stream of bytes): hashed
     just before it is read, not from the bytes parsed.  The reader calls
-    :func:`check_unchanged` with the digest after its last read: the same digest before
+    :func:`changed_while_read` with the digest after its last read: the same digest before
     the first read and after the last one is what makes the recorded checksum that of
     the content the numbers come from."""
     digest = file_sha256(path)
