@@ -426,8 +426,10 @@ class SiteExplorer(SavedText, widgets.VBox):
 
     # ------------------------------------------------------------------ buttons
     def reset(self):
-        """Back to the scenario's settings."""
+        """Back to the scenario's settings (an earlier save's or export's message goes:
+        it was about the settings left behind)."""
         self.settings = self.session.baseline
+        self.message_w.value = ""
         for k, a in ASSUMPTIONS.items():
             set_quietly(self.controls[k], a.get(self.settings, self.site), self._on_control)
         self._show_in_force()
