@@ -62,10 +62,33 @@ def test_spread_sentence_by_hand():
     t["percent"] = 100 * t["difference"] / t["wesely1989"]
     s = fs.spread_sentence(t)
     assert s == ("Dry N differs by 23 % and dry S by 5 % between the two published gas "
-                 "schemes (zhang2003 minus wesely1989: +2.30 kg N ha-1 yr-1, "
-                 "-0.10 kg S ha-1 yr-1).")
+                 "schemes (zhang2003 minus wesely1989: +2.3 kg N ha-1 yr-1, "
+                 "-0.1 kg S ha-1 yr-1).")
     t.loc["N dry", ["wesely1989", "percent"]] = [0.0, np.nan]
     assert fs.spread_sentence(t).startswith("Dry S differs by 5 %")
     spec = fs.budget_change_spec(t, "a", "grass")
     assert spec["data"][0]["y"] == ["S dry", "N dry"]
     assert spec["data"][0]["text"] == ["-5 %", ""]
+
+
+def test_small_differences_keep_their_digits():
+    """Browser trial (the demo's farm, 2022-2023): dry S 0.682129 -> 0.678358 kg S/ha/yr
+    read "dry S by 1 % ... -0.00 kg S ha-1 yr-1" and the S total's bar "-0 %"; the
+    numbers keep three (amounts) or two (percentages under 1 %) significant digits, and
+    an unchanged component reads "0 %" (it read "+0 %")."""
+    t = pd.DataFrame({"element": ["N", "S", "S", "S"],
+                      "wesely1989": [22.002648, 0.682129, 4.828588, 0.146111],
+                      "zhang2003": [20.788265, 0.678358, 4.824817, 0.146111]},
+                     index=["N dry", "S dry", "S total", "dry pSO4"])
+    t["difference"] = t["zhang2003"] - t["wesely1989"]
+    t["percent"] = 100 * t["difference"] / t["wesely1989"]
+    s = fs.spread_sentence(t)
+    # by hand: 100 x 0.003771 / 0.682129 = 0.553 %; 0.003771 to 3 significant digits
+    assert "dry S by 0.55 %" in s and "-0.00377 kg S ha-1 yr-1" in s, s
+    assert "Dry N differs by 6 %" in s and "-1.21 kg N ha-1 yr-1" in s, s
+    assert "-0.00 " not in s
+    text = dict(zip(fs.budget_change_spec(t, "a", "grass")["data"][0]["y"],
+                    fs.budget_change_spec(t, "a", "grass")["data"][0]["text"]))
+    # 100 x 0.003771 / 4.828588 = 0.0781 %
+    assert text == {"dry pSO4": "0 %", "S total": "-0.078 %", "S dry": "-0.55 %",
+                    "N dry": "-6 %"}

@@ -204,3 +204,23 @@ def test_network_trend_table_headings_in_words(two_sites_2021):
         assert f">{name}<" in page, name
     assert "ex_acidity_eq_ha_yr" not in page and "S_trend" not in page
     assert "ex_acidity_eq_ha_yr" in net.analysis.columns
+
+
+def test_sobol_figure_names_every_axis():
+    """Browser trial: the Sobol panel's axis of indices had no title (its panel title
+    only); every axis holding data is named, the tornado's with its unit."""
+    import pandas as pd
+
+    from workbench.ui.figures_sensitivity import sensitivity_spec
+    keys = {"site": "a", "receptor": "grass", "period": "2021", "element": "N",
+            "quantity": "total"}
+    sobol = pd.DataFrame([{**keys, "factor": "vd_NH3", "S1": 0.6, "S1_conf": 0.01,
+                           "ST": 0.65, "ST_conf": 0.02}])
+    tornado = pd.DataFrame([{**keys, "factor": "vd_NH3", "low": 0.5, "high": 2.0,
+                             "output_low": 8.0, "output_high": 14.0, "output_base": 10.0}])
+    for tor in (tornado, tornado.iloc[:0]):
+        layout = sensitivity_spec(sobol, tor, "a", "grass", "2021", "N", "total")["layout"]
+        axes = [k for k in layout if k.startswith("xaxis")] + ["yaxis"]
+        titles = {k: (layout[k].get("title") or {}).get("text") for k in axes}
+        assert all(titles.values()), titles
+        assert titles["xaxis"] == "Sobol index [1]" and "kg N/ha" in titles["xaxis2"]

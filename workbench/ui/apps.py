@@ -356,9 +356,15 @@ class SiteExplorer(SavedText, widgets.VBox):
         t0 = time.perf_counter()
         self.progress.start(text)
         self._before = self._totals
+        # the line under the figures says so while the kernel works: the last change's
+        # line (or the first totals, without an arrow) read as the result of this one
+        # (browser trial: the first change of a session, slower, showed the opening line)
+        shown = self.change_w.value
+        self.change_w.value = f"<i>{html.escape(text)}…</i>"
         try:
             self.result = self._run()
         except Exception as exc:  # shown in the app; the previous figures stay
+            self.change_w.value = shown                 # and the line that goes with them
             self.message_w.value = f"<span style='color:#D55E00'>{html.escape(str(exc))}</span>"
             self.progress.step("failed", 1.0)
             raise
@@ -426,8 +432,10 @@ class SiteExplorer(SavedText, widgets.VBox):
 
     # ------------------------------------------------------------------ buttons
     def reset(self):
-        """Back to the scenario's settings."""
+        """Back to the scenario's settings (an earlier save's or export's message goes:
+        it was about the settings left behind)."""
         self.settings = self.session.baseline
+        self.message_w.value = ""
         for k, a in ASSUMPTIONS.items():
             set_quietly(self.controls[k], a.get(self.settings, self.site), self._on_control)
         self._show_in_force()

@@ -209,6 +209,26 @@ def scheme_budget_table(years_by_scheme: dict, site, receptor, unit="kg/ha/yr") 
     return out
 
 
+def percent_text(p: float, sign=True) -> str:
+    """A percentage as read beside a bar or in a sentence: whole from 1 % up, two
+    significant digits below (a -0.08 % change read "-0 %", and 0.55 % "1 %"), 0 as
+    ``0 %`` without a sign.
+
+    >>> [percent_text(v) for v in (-17.08, -0.078, 0.0, 0.553)]
+    ['-17 %', '-0.078 %', '0 %', '+0.55 %']
+    """
+    if p == 0:
+        return "0 %"
+    body = f"{abs(p):.0f}" if abs(p) >= 1 else f"{abs(p):.2g}"
+    return f"{('-' if p < 0 else '+') if sign else ''}{body} %"
+
+
+def amount_text(v: float) -> str:
+    """A signed difference to three significant digits (``-0.00377``: two decimals read
+    "-0.00" for dry S) [the unit of `v`]."""
+    return "0" if v == 0 else f"{v:+.3g}"
+
+
 def spread_sentence(table: pd.DataFrame, unit="kg/ha/yr") -> str:
     """One plain sentence on how far the two schemes' dry N and dry S lie apart.
 
@@ -221,9 +241,10 @@ def spread_sentence(table: pd.DataFrame, unit="kg/ha/yr") -> str:
     if not known:
         return (f"Dry N and S cannot be compared between the two published gas schemes "
                 f"(none under {a}).")
-    words = [f"Dry {el} differs by {abs(p):.0f} %" if i == 0 else f"dry {el} by {abs(p):.0f} %"
+    words = [f"Dry {el} differs by {percent_text(p, sign=False)}" if i == 0
+             else f"dry {el} by {percent_text(p, sign=False)}"
              for i, (el, p, _) in enumerate(known)]
-    amounts = [f"{d:+.2f} {axis_text(unit, element=el)}" for el, _, d in known]
+    amounts = [f"{amount_text(d)} {axis_text(unit, element=el)}" for el, _, d in known]
     return (f"{' and '.join(words)} between the two published gas schemes "
             f"({b} minus {a}: {', '.join(amounts)}).")
 
@@ -236,7 +257,7 @@ def budget_change_spec(table: pd.DataFrame, site, receptor, unit="kg/ha/yr") -> 
     rows = list(table.index)[::-1]                        # the totals on top
     t = table.loc[rows]
     x = [None if not np.isfinite(v) else float(v) for v in t["difference"]]
-    text = ["" if not np.isfinite(p) else f"{p:+.0f} %" for p in t["percent"]]
+    text = ["" if not np.isfinite(p) else percent_text(p) for p in t["percent"]]
     custom = [[float(t.loc[r, a]), float(t.loc[r, b]), axis_text(unit, element=t.loc[r, "element"])]
               for r in rows]
     colours = [SCHEME_COLOURS.get(b, "#999999") if (v or 0) >= 0 else SCHEME_COLOURS.get(a, "#999999")

@@ -77,6 +77,11 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
                                      f"{site} · "
                                      f"{receptor} · {period}"}})
     layout[x1]["range"] = [0, 1.05]
+    # every axis named (the index axis had its panel's title only)
+    layout[x1]["title"] = {"text": "Sobol index [1]"}
+    layout[y1]["title"] = {"text": "factor"}
+    if len(t) == 0:                 # no tornado rows: still say what the axis would hold
+        layout[x2]["title"] = {"text": _UNITS.get(element, "")}
     return {"data": traces, "layout": layout}
 
 
