@@ -119,7 +119,8 @@ def _exceedance_html(result, study, network=False, ex=None) -> list:
     out.append("<p>Acidity: the sum of the S and N reductions to the nearest point of the "
                "critical load function (ICP Modelling and Mapping Manual); nutrient N: "
                "deposition above CLnutN. Regions: "
-               + "; ".join(f"{k} {html.escape(v)}" for k, v in REGIONS.items() if k >= 0)
+               + "; ".join(f"{k} {html.escape(v)}" for k, v in REGIONS.items()
+                           if k >= 0 or (span["region"] == k).any())
                + ". Every year, the loads used and the notes are in exceedance.csv; critical "
                "loads carry their own uncertainty.</p>")
     cols = ["site", "receptor", "s_dep_eq_ha_yr", "n_dep_eq_ha_yr", "ex_acidity_eq_ha_yr",
