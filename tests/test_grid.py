@@ -139,6 +139,9 @@ def test_grid_maps_equal_site(site, grid):
     # cell (1, 2): same class, other wind and concentrations -> other numbers
     assert not np.allclose(ds["dry_N"].values[:, 1, 2], ds["dry_N"].values[:, 0, 0])
     assert np.all(ds["dry_N"].values[:, 0, :] > 0)
+    # the caution travels with grid.nc (CF global comment; tests/test_caution_outputs.py)
+    from workbench.report import CAUTION
+    assert ds.attrs["comment"] == CAUTION
 
 
 def test_dask_blocks_equal_in_memory(grid):

@@ -44,7 +44,7 @@ def test_check_names_the_weeks_without_samples(scenario, capsys):
                      r"weeks from 2017-03-", notes), notes
     assert re.search(r"air v03-\w+: 10 weeks without samples \(1 gap; longest 10 weeks "
                      r"from 2017-0[78]-", notes), notes
-    assert "met v04: 840 missing hours in 1 gaps" in notes      # 35 days x 24 h
+    assert "met v04: 840 missing hours in 1 gap;" in notes      # 35 days x 24 h
     assert not re.search(r"(air|precipitation) v01\b", notes)   # no gap, no note
 
 

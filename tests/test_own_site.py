@@ -238,6 +238,18 @@ def test_report_and_csvs_read_as_that_user(site):
 
 # ---------------------------------------------------------------- the trial's defects
 
+
+def test_report_figure_of_a_month_study_shows_its_month(site):
+    """A study of one month at resolution "month": no calendar year passes, and the
+    report's budget figure drew the year 2022 (completeness 8 %, the dry parts scaled
+    to the year and the wet not) beside a table of 2022-03; it draws the month now, and
+    the exceedance section no longer says "no critical loads" for a site that has them."""
+    html = (site / "run" / "report.html").read_text(encoding="utf-8")
+    assert "S total 2022-03:" in html and "N total 2022-03:" in html
+    assert "S total 2022:" not in html
+    assert "No critical loads in sites.toml" not in html
+    assert "No year passes completeness: each year's exceedance" in html
+
 def test_met_from_another_logger_names_every_missing_column(site, tmp_path):
     """Before: one missing column per attempt (site, time, wind_speed, ... six runs of
     check for a logger export). Now every missing column, header examples with units,

@@ -37,3 +37,21 @@ def test_tables_have_no_empty_column_and_slopes_have_units(tmp_path):
     assert "<th></th>" not in rows[:rows.index("</table>")]
     trends = text[text.index("<h2>Trends"):]
     assert "Sen slope [kg/ha/yr per yr]" in trends and "Sen slope [% per yr]" in trends
+
+
+def test_exceedance_legend_explains_region_minus_one_when_shown():
+    """The demo's fell rows (N partial, no NO2) show region -1 in report.html; the
+    legend listed regions 0-4 only, so the -1 in the table was unexplained."""
+    import pandas as pd
+
+    from workbench.analysis.exceedance import REGIONS
+    from workbench.report import _exceedance_html
+
+    def row(region):
+        return dict(period="span", site="fell", receptor="grass", s_dep_eq_ha_yr=509.0,
+                    n_dep_eq_ha_yr=974.0, ex_acidity_eq_ha_yr=float("nan"), region=region,
+                    ex_nutrient_n_eq_ha_yr=float("nan"), status="flagged", note="N total partial")
+    html_text = "".join(_exceedance_html(None, None, ex=pd.DataFrame([row(-1), row(3)])))
+    assert "-1 " + REGIONS[-1].split(" (")[0] in html_text, html_text
+    html_text = "".join(_exceedance_html(None, None, ex=pd.DataFrame([row(3)])))
+    assert "-1 " not in html_text          # no -1 in the table: the legend does not list it

@@ -106,6 +106,7 @@ def grid_dataset(names, arr, grid, periods, history: str) -> xr.Dataset:
                        "flag_values": np.arange(len(_CLASSES), dtype="int16"),
                        "flag_meanings": " ".join(_CLASSES),
                        **({"grid_mapping": mapping} if mapping else {})})
+    from .report import CAUTION          # the file may travel without a report
     ds.attrs = {"Conventions": "CF-1.8", "title": "gridded dry deposition velocities and "
                 "dry deposition of S and N (deposition workbench)",
                 "institution": "deposition workbench user",
@@ -113,6 +114,7 @@ def grid_dataset(names, arr, grid, periods, history: str) -> xr.Dataset:
                 "every cell (model-based estimates, uncertain; for regulatory work follow "
                 "the methods your authority requires)",
                 "history": history,
+                "comment": CAUTION,
                 "references": "docs/methods_dry.md of the deposition workbench"}
     return ds
 

@@ -23,13 +23,37 @@ LAND_USE = {
 }
 
 FOREST_CLASSES = ("conifer_forest", "deciduous_forest", "mixed_forest")
+#: Words of the descriptions too common to name a class by.
+_COMMON_WORDS = {"or", "and", "with", "the", "land", "forest", "height", "varies", "through",
+                 "year", "emergent", "vegetation", "open", "permanent", "crops"}
+
+
+def class_hint(name) -> str:
+    """A hint naming our class for an unknown land-use name: the class whose description
+    holds one of its words (``heath`` and ``heathland`` are ``moorland``, not the
+    ``wetland`` a spelling match would give; ``pasture`` is ``grass``, ``bog`` is
+    ``wetland``, ``lake`` is ``water``), else the nearest spelling (`suggest`); "" when
+    none fits.
+
+    >>> class_hint("heathland")
+    " (did you mean 'moorland'? its class covers moorland, heath or shrubland)"
+    """
+    import re
+
+    from .errors import suggest
+    words = [w for w in re.split(r"[^a-z]+", str(name).lower()) if len(w) >= 3]
+    for cls, (text, _) in LAND_USE.items():
+        known = [w for w in re.split(r"[^a-z]+", text.lower())
+                 if len(w) >= 3 and w not in _COMMON_WORDS]
+        if any(w == k or (len(k) >= 4 and w.startswith(k)) for w in words for k in known):
+            return f" (did you mean {cls!r}? its class covers {text})"
+    return suggest(str(name), LAND_USE)
 
 
 def check(name: str) -> str:
     """Return `name` if it is one of our classes, else raise ValueError with the list."""
     if name not in LAND_USE:
-        from .errors import suggest
-        raise ValueError(f"unknown land-use class {name!r}{suggest(name, LAND_USE)}; "
+        raise ValueError(f"unknown land-use class {name!r}{class_hint(name)}; "
                          f"expected one of {', '.join(LAND_USE)}")
     return name
 

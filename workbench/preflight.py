@@ -37,8 +37,10 @@ class Prepared:
         sc = self.scenario
         p = self.periods
         res = sc.data["period"]["resolution"]
-        lines = [f"periods: {len(p)} {res} periods from {p['start'].iloc[0]} to "
-                 f"{p['end'].iloc[-1]} ({len(self.years)} years)",
+        n_years = len(self.years)
+        lines = [f"periods: {len(p)} {res} period{'s' if len(p) != 1 else ''} from "
+                 f"{p['start'].iloc[0]} to {p['end'].iloc[-1]}; whole-span totals over "
+                 f"{n_years} calendar year{'s' if n_years != 1 else ''}",
                  f"receptor surfaces: {', '.join(map(str, self.receptors)) or 'none'}"]
         fixed = sc.fixed_velocity
         if fixed:

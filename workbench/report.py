@@ -105,6 +105,20 @@ def _pivot_html(per: pd.DataFrame) -> str:
     return wide.reset_index().to_html(index=False, border=0, classes="tab", na_rep="–")
 
 
+#: Reporting periods drawn in a site's budget figure when it shows the scenario's own
+#: periods (the last ones; our choice: a year of months).
+MAX_FIGURE_PERIODS = 12
+
+
+def _own_periods(result, years) -> bool:
+    """The run's reporting periods differ from the calendar years (resolution month,
+    season or hydro_year), so a figure may show them instead."""
+    budget = getattr(result, "budget", None)
+    if budget is None or budget is years or "period" not in budget.dims:
+        return False
+    return [str(v) for v in budget["period"].values] != [str(v) for v in years["period"].values]
+
+
 def _exceedance_html(result, study, network=False, ex=None) -> list:
     """The span's critical-load exceedances (exceedance.csv has every year); folded when
     long in the `network` layout.  `ex`: the exceedance table, if already computed."""
@@ -115,11 +129,15 @@ def _exceedance_html(result, study, network=False, ex=None) -> list:
            "[eq/ha/yr]</h2>"]
     span = ex[ex["period"] == "span"]
     if span.empty:
+        if len(ex):
+            return out + ["<p>No year passes completeness: each year's exceedance, with its "
+                          "status and notes, is in exceedance.csv.</p>"]
         return out + ["<p>No critical loads in sites.toml, or no year passes completeness.</p>"]
     out.append("<p>Acidity: the sum of the S and N reductions to the nearest point of the "
                "critical load function (ICP Modelling and Mapping Manual); nutrient N: "
                "deposition above CLnutN. Regions: "
-               + "; ".join(f"{k} {html.escape(v)}" for k, v in REGIONS.items() if k >= 0)
+               + "; ".join(f"{k} {html.escape(v)}" for k, v in REGIONS.items()
+                           if k >= 0 or (span["region"] == k).any())
                + ". Every year, the loads used and the notes are in exceedance.csv; critical "
                "loads carry their own uncertainty.</p>")
     cols = ["site", "receptor", "s_dep_eq_ha_yr", "n_dep_eq_ha_yr", "ex_acidity_eq_ha_yr",
@@ -359,11 +377,16 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     for site in ([] if network else sites[:max_site_figures]):
         rec = [r for r in ds["receptor"].values if bool(ds["active"].sel(site=site, receptor=r))]
         for r in rec[:1]:
-            year = last_year
+            shown, year = ds, last_year
             passes = ds["total_passes"].sel(site=site, receptor=r, total="S_total").values
             if passes.any():
                 year = str(ds["period"].values[np.flatnonzero(passes)[-1]])
-            fig = budget_bars(ds, site, r, year)
+            elif _own_periods(result, ds):
+                # no calendar year passes (a study of some months): the scenario's own
+                # periods, as in the table above, not a year of mostly unsampled months
+                shown = result.budget
+                year = [str(v) for v in shown["period"].values[-MAX_FIGURE_PERIODS:]]
+            fig = budget_bars(shown, site, r, year)
             parts.append(pio.to_html(fig, include_plotlyjs="inline" if first else False,
                                      full_html=False))
             first = False

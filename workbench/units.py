@@ -80,6 +80,72 @@ def parse_header(text: str) -> Header:
     return Header(name, unit)
 
 
+#: Column names of our CSV inputs besides the species (docs/data_formats.md sections
+#: 2-4): a header naming one of them with its unit outside square brackets is refused
+#: by :func:`misplaced_unit` rather than left unused.
+KNOWN_COLUMNS = ("gauge_depth", "sample_depth", "sample_volume", "collector_area", "pH",
+                 "conductivity", "wind_speed", "temperature", "relative_humidity",
+                 "solar_radiation", "precipitation", "pressure", "cloud_cover",
+                 "friction_velocity", "sensible_heat_flux")
+#: ``SO4 (mg/L)``, ``SO4(mg/L)``, ``SO4 {mg/L}``: a unit in other brackets.
+_OTHER_BRACKETS = re.compile(r"^\s*(?P<name>[^\[\](){}]+?)\s*[({](?P<unit>[^\[\](){}]*)[)}]\s*$")
+#: ``SO4 mg/L``, ``SO4_mg/L``, ``gauge_depth mm``: a unit after a blank or underscore.
+_BARE_UNIT = re.compile(r"^\s*(?P<name>\S+?)[\s_]+(?P<unit>[^\s_\[\]]+)\s*$")
+#: Units written bare that are read as such (with no ``/``): a depth, a volume, a mixing
+#: ratio, a pressure, a temperature; any unit with a ``/`` counts too.
+_BARE_UNITS = ("mm", "cm", "in", "inch", "ml", "l", "cm2", "m2", "ppb", "ppm", "ppt", "ppbv",
+               "ppmv", "hpa", "kpa", "pa", "mbar", "degc", "k", "%", "percent", "okta",
+               "oktas")
+
+
+def _known_column(name: str) -> str | None:
+    """The canonical spelling of a known column or species name (case-blind), or None."""
+    names = list(KNOWN_COLUMNS)
+    for sp, info in _species.SPECIES.items():
+        names.append(sp)
+        names.extend(f"{sp}_as_{el}" for el in ("S", "N") if getattr(info, "element", None) == el)
+    low = {n.lower(): n for n in names}
+    return low.get(name.strip().lower())
+
+
+def misplaced_unit(text: str) -> tuple[str, str] | None:
+    """(name, unit) of a header that names one of our columns with its unit outside
+    square brackets (``SO4 (ueq/L)``, ``sample_volume (mL)``, ``SO4_mg/L``,
+    ``gauge_depth mm``), else None.
+
+    Such a header does not parse as ``name [unit]``, so the column would be left unused
+    with a note and the budget would lack it; the readers refuse it instead with the
+    header to write.  A bracketed header, or a name that is none of ours (``method_NH3``,
+    ``comment (lab)``), gives None.
+
+    >>> misplaced_unit("SO4 (ueq/L)")
+    ('SO4', 'ueq/L')
+    >>> misplaced_unit("NO3_as_N_mg/L")
+    ('NO3_as_N', 'mg/L')
+    >>> misplaced_unit("NH3_method") is None
+    True
+    """
+    text = str(text)
+    if "[" in text or "]" in text:
+        return None
+    m = _OTHER_BRACKETS.match(text)
+    if m:
+        name = _known_column(m.group("name"))
+        return (name, m.group("unit").strip()) if name else None
+    m = _BARE_UNIT.match(text)
+    if m:
+        name = _known_column(m.group("name"))
+        unit = m.group("unit")
+        if name is None or not ("/" in unit or unit.lower() in _BARE_UNITS):
+            return None
+        try:
+            parse_unit(unit)
+        except ValueError:
+            return None
+        return name, unit
+    return None
+
+
 def parse_unit(text: str):
     """Parse a unit with pint; ``eq`` is read as ``mol`` and reported.
 

@@ -130,10 +130,12 @@ def cf_attributes(ds: xr.Dataset) -> xr.Dataset:
 
 
 def write_netcdf(ds: xr.Dataset, path: Path, title: str):
+    from .report import CAUTION          # the file may travel without report.html
     ds = _netcdf_ready(cf_attributes(ds))
     ds.attrs.update({"Conventions": "CF-1.8", "title": title,
                      "institution": "deposition workbench user",
                      "source": f"deposition workbench {__version__}",
+                     "comment": CAUTION,
                      "history": f"{_dt.datetime.now(_dt.timezone.utc):%Y-%m-%dT%H:%M:%SZ} created"})
     ds.to_netcdf(path, engine="scipy", format="NETCDF3_64BIT")
 

@@ -7,6 +7,7 @@ import pytest
 
 from workbench.errors import InputError
 from workbench.io import read_air, read_met, read_precipitation, read_sites
+from workbench.landuse import LAND_USE
 
 from tiny_inputs import PRECIP, SITES, met_text
 
@@ -242,3 +243,15 @@ def test_land_use_suggestion_reads_as_meant(write, typo, meant):
     """Before, 'grasland' suggested 'moorland' (nearer by difflib's ratio)."""
     p = write("s.toml", SITES.replace('land_use = "grass"', f'land_use = "{typo}"'))
     _raises(read_sites, p, match=f"(did you mean {meant!r}?)")
+
+
+@pytest.mark.parametrize("written, cls", [("heathland", "moorland"), ("heath", "moorland"),
+                                          ("pasture", "grass"), ("bog", "wetland"),
+                                          ("lake", "water")])
+def test_unknown_land_use_names_the_class_that_covers_it(write, written, cls):
+    """A new analyst's "heathland" was answered "did you mean 'wetland'?" (the nearest
+    spelling); the class whose description (workbench/landuse.py) covers the word is
+    named now."""
+    p = write("s.toml", SITES.replace('land_use = "grass"', f'land_use = "{written}"'))
+    msg = str(_raises(read_sites, p, match=f"got '{written}', expected one of "))
+    assert msg.endswith(f"(did you mean '{cls}'? its class covers {LAND_USE[cls][0]})"), msg

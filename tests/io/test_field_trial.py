@@ -394,7 +394,7 @@ def test_clock_going_forward_hour_is_hinted(tmp_path, readers, cat):
     p.write_text("\n".join(ln for ln in text.splitlines() if "2020-03-29T02:00" not in ln)
                  + "\n")
     _, led = readers["met"](p, cat)
-    note = next(n for n in led.notes if n.startswith("met alpha: 1 missing hours"))
+    note = next(n for n in led.notes if n.startswith("met alpha: 1 missing hour in 1 gap;"))
     assert "1 h missing at 2020-03-29T01:00 UTC, in a month of clock changes: the clock " \
            "going forward to summer time?" in note, note
 
@@ -406,7 +406,7 @@ def test_a_one_hour_gap_in_summer_has_no_clock_hint(tmp_path, readers, cat):
                  + "\n")
     _, led = readers["met"](p, cat)
     assert not any("clock going forward" in n for n in led.notes), led.notes
-    assert any(n.startswith("met alpha: 1 missing hours") for n in led.notes), led.notes
+    assert any(n.startswith("met alpha: 1 missing hour in 1 gap;") for n in led.notes), led.notes
 
 
 @pytest.mark.parametrize("reader", list(FILES))

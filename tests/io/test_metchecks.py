@@ -78,4 +78,4 @@ def test_gauge_comparison_and_gaps(tmp_path, cat):
     t = inp.ledger.table
     flagged = t[(t["file"] == str(precip)) & t["reason"].str.contains("far from the gauge")]
     assert list(flagged["line"]) == [3]
-    assert any("10 missing hours in 1 gaps" in n for n in inp.ledger.notes)
+    assert any("10 missing hours in 1 gap;" in n for n in inp.ledger.notes)

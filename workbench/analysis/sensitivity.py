@@ -511,15 +511,19 @@ def sensitivity_html(frame: pd.DataFrame, torn: pd.DataFrame) -> str:
 
     import plotly.io as pio
 
+    from ..report import CAUTION
     from ..ui.figures_sensitivity import sensitivity_figure
-    parts = ["<html><head><meta charset='utf-8'><title>Sensitivity</title></head><body>",
+    parts = ["<html><head><meta charset='utf-8'><title>Sensitivity</title></head>"
+             "<body style='font-family:sans-serif;max-width:70em;margin:2em'>",
              "<h1>Global sensitivity of the budget totals</h1>",
+             "<p style='background:#fff7e0;border-left:4px solid #e69f00;padding:.6em 1em'>"
+             "<b>Caution.</b> " + _html.escape(CAUTION) + "</p>",
              "<p>" + _html.escape(
                  "Sobol first-order (S1) and total (ST) indices from Saltelli sampling "
                  "(SALib), with 95 % bootstrap intervals, and one factor at a time at the "
-                 "ends of its range. The budget is model-based and uncertain; the indices "
-                 "rank the factors within the ranges given in [sensitivity] only. For "
-                 "regulatory work follow the methods your authority requires.") + "</p>"]
+                 "ends of its range. The indices rank the factors within the ranges given "
+                 "in [sensitivity] only (docs/scenario.md); a factor left out has no "
+                 "index.") + "</p>"]
     if frame.empty:
         parts.append("<p>No total varies with the factors given.</p>")
     else:

@@ -419,7 +419,8 @@ def describe_gaps(met) -> list[str]:
         edges = np.diff(np.concatenate([[0], inner.astype(int), [0]]))
         starts, ends = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
         k = int(np.argmax(ends - starts))
-        notes.append(f"met {site}: {n_miss} missing hours in {len(starts)} gaps; longest "
+        notes.append(f"met {site}: {n_miss} missing hour{'s' if n_miss != 1 else ''} in "
+                     f"{len(starts)} gap{'s' if len(starts) != 1 else ''}; longest "
                      f"{int(ends[k] - starts[k])} h from {str(times[a + starts[k]])[:16]} UTC"
                      + clock_forward_hint(times[a + starts[(ends - starts) == 1]]))
     return notes

@@ -76,7 +76,7 @@ from .metrows import Spill
 from .metstore import MetStore, grid_rows, load_small
 from .metvars import HOUR, MET_VARIABLES, convert_met, met_attrs
 from .readbytes import HashingFile
-from .table import (_OFFSET, SAMPLE_MISSING_TEXTS, YEARS, end_of_day, end_of_day_note,
+from .table import (_OFFSET, SAMPLE_MISSING_TEXTS, YEARS, check_unit_brackets, end_of_day, end_of_day_note,
                     fields_error, parse_iso)
 
 #: Bytes of text parsed at a time (by each thread; see :func:`workbench.threads.map_ordered`).
@@ -215,6 +215,8 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
     cells = header_cells(header)
     if cells is None:
         return None
+    for c in cells:
+        check_unit_brackets(path, n_meta + 1, c)
     names = [parse_header(c).name for c in cells]
     if len(set(names)) != len(names):
         return None

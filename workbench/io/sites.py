@@ -13,7 +13,7 @@ import numpy as np
 import xarray as xr
 
 from ..errors import InputError, suggest, type_hint, type_words
-from ..landuse import LAND_USE
+from ..landuse import LAND_USE, class_hint
 
 from .critical_loads import CRITICAL_LOAD_KEYS, check_critical_loads  # noqa: F401
 from .sitechanges import change_key_line, check_changes
@@ -405,12 +405,12 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None,
     for key in ("land_use", "met_land_use"):
         if key in t and t[key] not in LAND_USE:
             raise err("unknown land-use class", key, t[key],
-                      "one of " + ", ".join(LAND_USE) + suggest(t[key], LAND_USE))
+                      "one of " + ", ".join(LAND_USE) + class_hint(t[key]))
     receptors = t.get("receptors", [])
     for r in receptors:
         if not isinstance(r, str) or r not in LAND_USE:
             raise err("unknown land-use class", "receptors", r,
-                      "one of " + ", ".join(LAND_USE) + suggest(r, LAND_USE))
+                      "one of " + ", ".join(LAND_USE) + class_hint(r))
     twice = [r for i, r in enumerate(receptors) if r in receptors[:i]]
     if twice:          # each row of exceedance.csv came once per naming, squared
         raise err("receptor named twice in receptors", "receptors", twice[0],

@@ -19,7 +19,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import NUMBER_TEXT, InputError, suggest
-from ..units import Header, parse_header
+from ..units import Header, misplaced_unit, parse_header
 from .ledger import compact_lines
 from .readbytes import read_hashed
 
@@ -184,6 +184,30 @@ def end_of_day_note(file_name: str, columns, lines) -> str:
 _DECIMAL_COMMA = re.compile(r"^[-+]?\d+$")
 
 
+def check_unit_brackets(path, line: int, column: str) -> None:
+    """Refuse a header that names one of our columns with its unit outside square
+    brackets (``SO4 (ueq/L)``, ``sample_volume (mL)``, ``SO4_mg/L``): read as an unknown
+    column it would be left unused, and the budget would lack it with only a note.
+
+    Raises
+    ------
+    InputError
+        Naming the file, the header line, the column and the header to write.
+    """
+    found = misplaced_unit(column)
+    if found is None:
+        return
+    name, unit = found
+    if name == "pH":
+        want = "'pH' (no unit)"
+    else:
+        want = f"'{name} [{unit}]'" if unit else f"'{name} [unit]'"
+    raise InputError("unit not in square brackets (the column would not be read)",
+                     file=path, line=line, column=column, value=column,
+                     expected=f"the header {want}: the name, then the unit in square "
+                     "brackets")
+
+
 def fields_error(path, line, n_head, cells=None) -> InputError:
     """The error of a CSV row with another number of fields than the header; with a hint
     when it has more and two neighbouring cells read as the two halves of a number
@@ -305,6 +329,8 @@ class RawTable:
         if df.empty:
             raise InputError("no data rows", file=path, line=n_meta + 1,
                              expected="at least one data row below the header")
+        for col in df.columns:
+            check_unit_brackets(path, n_meta + 1, col)
         from .unitswitch import merge_unit_switches
         df, switches, origin = merge_unit_switches(df, path, n_meta + 1, lines)
         headers, raw, names = {}, {}, []
