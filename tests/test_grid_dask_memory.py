@@ -50,9 +50,9 @@ def test_a_block_task_carries_its_block_not_the_whole_grid(grids):
     """Every dask task of a block carried the whole `Grid` (its 2-D fields, the maps'
     template): a worker deserialises each task's arguments apart and keeps them while
     the task's result waits for the other blocks, so it held the whole grid once per
-    block it ran (0.5 MB pickled at 100 x 100 cells, 50 MB at 1,000 x 1,000).  Now a
-    task carries its block's part (`grid_io.cut`): the same bytes for the same block
-    whatever the size of the grid."""
+    block it ran (0.5 MB pickled at 100 x 100 cells; some 50 MB at 1,000 x 1,000 by
+    extrapolation).  Now a task carries its block's part (`grid_io.cut`): the same
+    bytes for the same block whatever the size of the grid."""
     small, large = _block_tasks(grids[4]), _block_tasks(grids[12])
     assert len(small) == 1 and len(large) == 9                 # one task per block
     for (y0, y1, x0, x1), (g, _) in large.items():

@@ -539,9 +539,9 @@ def cut(grid: Grid, ys: slice, xs: slice) -> Grid:
     :func:`read_block`): the 2-D fields of the block's cells only, the scratch copy's
     index of that block only, no template or notes (for the maps, made in the main
     process).  A dask task of a block carries this, not the whole grid: each task's
-    own copy of the whole grid's fields (0.5 MB pickled at 100 x 100 cells, 50 MB at
-    1,000 x 1,000) was kept by the worker while the block's result waited for the
-    others, so a worker held the whole grid once per block it ran.
+    own copy of the whole grid's fields (0.5 MB pickled at 100 x 100 cells, some
+    50 MB at 1,000 x 1,000 by extrapolation) was kept by the worker while the block's
+    result waited for the others, so a worker held the whole grid once per block it ran.
 
     Parameters
     ----------
