@@ -214,6 +214,19 @@ def _loaded(inputs):
 UNSET_WORKER_ENVIRON = ("MALLOC_TRIM_THRESHOLD_",)
 
 
+#: dask settings of the worker processes of a local cluster of :func:`start_client`
+#: (read by each nanny as it is made, so they reach the workers it spawns).
+#: distributed's statistical profiler samples every worker's stack each 10 ms and keeps
+#: one profile a second (up to ``distributed.admin.low-level-log-length``, 1,000) with
+#: the source lines of every sampled frame (``linecache``): for the dashboard, which a
+#: local cluster here does not start.  It grew each worker by its run's length: traced
+#: on 2 workers of a 100 x 100 grid, 31 MB more of profiles and source lines than at
+#: 20 x 20, about half of the worker's growth in peak with the grid's size
+#: (docs/performance.md, "Flat worker memory").  Off here; a cluster given by
+#: ``--scheduler`` keeps its own settings.
+WORKER_CONFIG = {"distributed.worker.profile.enabled": False}
+
+
 #: Modules the worker processes of a local cluster of :func:`start_client` import as
 #: they start (distributed's worker ``preload``), before they take a task: the package
 #: and the modules a block imports when it first runs.  Started by
@@ -281,7 +294,8 @@ def start_client(workers=None, scheduler=None):
     try:
         if launcher:
             spawn.set_executable(launcher)
-        with dask.config.set(unset):  # None: not set (read when the nannies are made)
+        # None: not set (both read when the nannies are made)
+        with dask.config.set({**unset, **WORKER_CONFIG}):
             cluster = distributed.LocalCluster(n_workers=int(workers), threads_per_worker=1,
                                                dashboard_address=None,
                                                preload=list(WORKER_PRELOAD))

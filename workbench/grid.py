@@ -33,7 +33,7 @@ from . import periods as _periods
 from .budget import COMPONENTS, BudgetOptions
 from .drycomponents import dry_components, dry_rows, prepare_velocities
 from .errors import WorkbenchError
-from .grid_io import Grid, block_catalogue, cell_ids, read_block
+from .grid_io import Grid, block_catalogue, cell_ids, cut, read_block
 from .grid_scratch import block_major
 from .io.common import release_free_memory
 from .io.sites import SiteCatalogue
@@ -394,7 +394,8 @@ def compute_grid(grid: Grid, dry_options, budget_options, periods, fixed_velocit
         dask = require("dask")
         da = require("dask.array")
         task = dask.delayed(block_result, pure=True)
-        arr = da.block([[da.from_delayed(task(grid, ys, xs, *args),
+        # each task carries its block's part of the grid (grid_io.cut), not the whole
+        arr = da.block([[da.from_delayed(task(cut(grid, ys, xs), ys, xs, *args),
                                          shape=(n_v, n_p, ys.stop - ys.start, xs.stop - xs.start),
                                          dtype=float) for ys, xs in row] for row in layout])
         return names, arr

@@ -286,6 +286,9 @@ class Grid:
     notes: list = field(default_factory=list)
     #: role -> block-major copy of time-chunked variables (:mod:`workbench.grid_scratch`).
     scratch: dict = field(default_factory=dict)
+    #: (row, column) in the whole grid of the first cell of the 2-D fields: (0, 0) but
+    #: for the grid of one block that a dask task carries (:func:`cut`).
+    origin: tuple = (0, 0)
 
     @property
     def shape(self) -> tuple:
@@ -521,12 +524,52 @@ def cell_ids(ys: slice, xs: slice) -> np.ndarray:
                        np.char.add("i", i.reshape(-1).astype(str)))
 
 
+def _window(grid: Grid, ys: slice, xs: slice) -> tuple:
+    """The (y, x) slices of the 2-D fields of `grid` that hold the cells `ys`, `xs` of
+    the whole grid (the same slices but for a grid :func:`cut` to a block)."""
+    (oy, ox), (ny, nx) = grid.origin, grid.shape
+    if not (oy <= ys.start <= ys.stop <= oy + ny and ox <= xs.start <= xs.stop <= ox + nx):
+        raise ValueError(f"cells y {ys.start}:{ys.stop}, x {xs.start}:{xs.stop} are not in "
+                         f"the grid's fields (y {oy}:{oy + ny}, x {ox}:{ox + nx})")
+    return slice(ys.start - oy, ys.stop - oy), slice(xs.start - ox, xs.stop - ox)
+
+
+def cut(grid: Grid, ys: slice, xs: slice) -> Grid:
+    """The grid as one block of it needs it (:func:`block_catalogue`,
+    :func:`read_block`): the 2-D fields of the block's cells only, the scratch copy's
+    index of that block only, no template or notes (for the maps, made in the main
+    process).  A dask task of a block carries this, not the whole grid: each task's
+    own copy of the whole grid's fields (0.5 MB pickled at 100 x 100 cells, some
+    50 MB at 1,000 x 1,000 by extrapolation) was kept by the worker while the block's
+    result waited for the others, so a worker held the whole grid once per block it ran.
+
+    Parameters
+    ----------
+    grid : Grid
+    ys, xs : slice
+        Rows and columns of the block in the whole grid [-].
+    """
+    import dataclasses
+    wy, wx = _window(grid, ys, xs)
+    scratch = {role: dataclasses.replace(s, blocks={k: v for k, v in s.blocks.items()
+                                                    if k == (ys.start, ys.stop, xs.start,
+                                                             xs.stop)})
+               for role, s in grid.scratch.items()}
+    return dataclasses.replace(
+        grid, classes=grid.classes[wy, wx].copy(), latitude=grid.latitude[wy, wx].copy(),
+        longitude=grid.longitude[wy, wx].copy(),
+        canopy_height=grid.canopy_height[wy, wx].copy(),
+        elevation=grid.elevation[wy, wx].copy(), template=None, notes=[], scratch=scratch,
+        origin=(ys.start, xs.start))
+
+
 def block_catalogue(grid: Grid, ys: slice, xs: slice) -> SiteCatalogue:
     """The cells of a block that have a class, each as a site of the catalogue."""
     ids = cell_ids(ys, xs)
-    cls = grid.classes[ys, xs].reshape(-1)
-    lat, lon = grid.latitude[ys, xs].reshape(-1), grid.longitude[ys, xs].reshape(-1)
-    h, z = grid.canopy_height[ys, xs].reshape(-1), grid.elevation[ys, xs].reshape(-1)
+    wy, wx = _window(grid, ys, xs)
+    cls = grid.classes[wy, wx].reshape(-1)
+    lat, lon = grid.latitude[wy, wx].reshape(-1), grid.longitude[wy, wx].reshape(-1)
+    h, z = grid.canopy_height[wy, wx].reshape(-1), grid.elevation[wy, wx].reshape(-1)
     sites = [Site(id=str(ids[k]), name=str(ids[k]), latitude=float(lat[k]),
                   longitude=float(lon[k]), elevation_m=float(z[k]), land_use=cls[k],
                   canopy_height_m=float(h[k]), wind_height_m=grid.wind_height,
