@@ -200,3 +200,10 @@ def test_lazy_hash_reads_and_hashes_the_netcdf_met(tmp_path, capsys):
     bench.met_case(tmp_path, 1, 1)
     out = capsys.readouterr().out
     assert out.startswith("NetCDF met x1: ") and "% of the read" in out, out
+
+
+def test_air_unit_step_benchmark_counts_alarms_and_detections():
+    bench = _load("air_unit_step")
+    false_alarms, found = bench.run(2, "SO2", 3, 3, 52, 0.3, seed=5)
+    assert 0 <= false_alarms <= 2 and 0 <= found <= 1
+    assert bench.demo_notes() == []
