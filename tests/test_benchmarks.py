@@ -207,3 +207,9 @@ def test_air_unit_step_benchmark_counts_alarms_and_detections():
     false_alarms, found = bench.run(2, "SO2", 3, 3, 52, 0.3, seed=5)
     assert 0 <= false_alarms <= 2 and 0 <= found <= 1
     assert bench.demo_notes() == []
+
+
+def test_met_degf_benchmark_runs():
+    bench = _load("met_degf")
+    false_days, found = bench.run("temperate", 1, 1, 3)
+    assert false_days >= 0 and 0 <= found <= 1
