@@ -213,3 +213,11 @@ def test_met_degf_benchmark_runs():
     bench = _load("met_degf")
     false_days, found = bench.run("temperate", 1, 1, 3)
     assert false_days >= 0 and 0 <= found <= 1
+
+
+def test_clock_and_decimal_comma_benchmarks_run():
+    clock = _load("clock_forward_gaps")
+    now, before = clock.run(20, 1, 2)
+    assert 0 <= now <= before <= 1
+    comma = _load("decimal_comma_hint")
+    assert len(comma.run(30)) == 3
