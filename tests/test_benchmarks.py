@@ -221,3 +221,12 @@ def test_clock_and_decimal_comma_benchmarks_run():
     assert 0 <= now <= before <= 1
     comma = _load("decimal_comma_hint")
     assert len(comma.run(30)) == 3
+
+
+def test_met_row_shift_benchmark_takes_the_humidity():
+    bench = _load("met_row_shift")
+    import numpy as np
+    import pandas as pd
+    t = pd.date_range("2021-01-01T01:00", periods=48, freq="h").values
+    rh = bench.invented_humidity(np.full(48, 290.0) + np.sin(np.arange(48) / 4), t, 1)
+    assert rh.shape == (48,) and ((rh >= 0.05) & (rh <= 1.0)).all()
