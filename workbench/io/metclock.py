@@ -267,11 +267,17 @@ def _cause(lag, off, utc_labels=False) -> str:
     if n > 0:
         extra = ("; or hour-ending labels under '# time_label: start' (remove that line; "
                  "NetCDF/zarr: the time_label attribute)") if n == 1 else ""
+        if utc_labels and n == 1:
+            extra = ("; or hour-ending times under the global attribute time_label = "
+                     "\"start\" (remove it)")
         return (f"the radiation runs late against the sun: {plain}. "
                 f"{local[:1].upper()}{local[1:]}{extra}")
     extra = ("; or hour-beginning labels read as hour ends (write '# time_label: start' "
              "above the header; NetCDF/zarr: the global attribute time_label = \"start\")"
              ) if n == -1 else ""
+    if utc_labels and n == -1:
+        extra = ("; or hour-beginning times read as hour ends (set the global attribute "
+                 "time_label = \"start\")")
     return (f"the radiation runs early against the sun: {plain}. "
             f"{local[:1].upper()}{local[1:]}{extra}")
 
