@@ -1,4 +1,5 @@
-"""Detection and false alarms of the met check for a temperature column pasted rows off
+"""Detection and false alarms of the met check for a temperature (or, with
+``--column relative_humidity``, a humidity) column pasted rows off
 (docs/data_formats.md, section 4; workbench/io/metcolumns.py).
 
 Run: ``python benchmarks/met_row_shift.py``.  The demo's four sites (two years each,
@@ -44,20 +45,46 @@ def invented_temperature(radiation, time_end, tau_h, seed, lat):
     return ZERO_CELSIUS + 10.0 + season + resp + syn + rng.normal(0, 0.3, len(radiation))
 
 
-def records():
-    """(label, time_end, temperature [K], radiation [W m-2]) of the clean records."""
+def invented_humidity(temperature, time_end, seed):
+    """An invented hourly relative humidity [-] of a temperature [K]: vapour pressure
+    held at a dew point 5 K below the day's mean temperature (plus a slow AR(1) of
+    1.5 K, and for seeds 1 and 2 a daily cycle of its own of 1.5 K peaking at 09 or
+    20 UTC, as dew points do in the field), so the humidity is lowest near the warmest
+    hours (Magnus formula over water, a = 17.62, b = 243.12 degC, WMO-No. 8 (2018)
+    Annex 4.B; from memory), clipped to 0.05-1."""
+    rng = np.random.default_rng(seed + 200)
+    tc = temperature - ZERO_CELSIUS
+    hour = pd.DatetimeIndex(time_end).hour.to_numpy()
+    peak = {1: 9, 2: 20}.get(seed % 3)
+    own = 0.0 if peak is None else 1.5 * np.cos(2 * np.pi * (hour - peak) / 24.0)
+    daily = pd.Series(tc).rolling(24, center=True, min_periods=1).mean().to_numpy()
+    phi = np.exp(-1.0 / 72.0)
+    dew = daily - 5.0 + lfilter([1.0], [1.0, -phi],
+                                rng.normal(0, 1.5 * np.sqrt(1 - phi ** 2), len(tc))) + own
+
+    def es(x):
+        return np.exp(17.62 * x / (243.12 + x))
+    return np.clip(es(np.minimum(dew, tc)) / es(tc), 0.05, 1.0)
+
+
+def records(column="temperature"):
+    """(label, time_end, column [K or -], radiation [W m-2]) of the clean records."""
     df = pd.read_csv(ROOT / "demo_data" / "met.csv.gz", comment="#")
     t = pd.to_datetime(df["time"])
     df = df[(t > "2019-01-01") & (t <= "2021-01-01")]
     for site, g in df.groupby("site"):
-        yield ("demo", pd.to_datetime(g["time"]).values,
-               g["temperature [degC]"].to_numpy(float) + ZERO_CELSIUS,
+        x = (g["temperature [degC]"].to_numpy(float) + ZERO_CELSIUS
+             if column == "temperature" else g["relative_humidity [%]"].to_numpy(float) / 100)
+        yield ("demo", pd.to_datetime(g["time"]).values, x,
                g["solar_radiation [W/m2]"].to_numpy(float))
     for _, lat, lon in SITES:
         for seed in range(3):
             for tau in (1.5, 3.0, 5.0):
                 t, r = radiation_year(lat, lon, 0.0, 0.0, seed)
-                yield "invented", t, invented_temperature(r, t, tau, seed, lat), r
+                x = invented_temperature(r, t, tau, seed, lat)
+                if column != "temperature":
+                    x = invented_humidity(x, t, seed)
+                yield "invented", t, x, r
 
 
 def invented_wind(n, persistence, season_ms, seed):
@@ -98,10 +125,15 @@ def wind_table():
 
 def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.parse_args(argv)
+    ap.add_argument("--column", default="temperature",
+                    choices=["temperature", "relative_humidity"],
+                    help="the column pasted rows off (the humidity: the demo's, and one "
+                    "invented from each invented temperature)")
+    args = ap.parse_args(argv)
     from workbench.io.metcolumns import _temperature_shift
+    humid = args.column == "relative_humidity"
     found, hit, n, cpu, hours = {}, {}, {}, 0.0, 0
-    for kind, t, temp, rad in records():
+    for kind, t, temp, rad in records(args.column):
         middle = str(t[len(t) // 2].astype("datetime64[Y]"))      # 2020 (demo), 2021
         for month in (("01", "07") if kind == "demo" else ("07",)):
             start = np.datetime64(f"{middle}-{month}-01T01:00")
@@ -116,7 +148,9 @@ def main(argv=None):
                     x[len(temp) + k:] = np.nan
                 codes = np.zeros(len(t), np.int64)
                 c0 = time.process_time()
-                out = _temperature_shift(x, rad, codes, 1, t, "column temperature")
+                out = (_temperature_shift(-x, rad, codes, 1, t, "column relative_humidity",
+                                          name="relative_humidity") if humid else
+                       _temperature_shift(x, rad, codes, 1, t, "column temperature"))
                 cpu += time.process_time() - c0
                 hours += len(t)
                 key = (kind, month, k)
@@ -130,7 +164,8 @@ def main(argv=None):
         print(f"| {kind} | {'January' if month == '01' else 'July'} | {k:+d} | {m} | "
               f"{f / m:.0%} | {hit[(kind, month, k)] / f:.0%} |" if f else
               f"| {kind} | {'January' if month == '01' else 'July'} | {k:+d} | {m} | 0% | - |")
-    wind_table()
+    if not humid:
+        wind_table()
     print(f"\nCPU of the check {cpu:.2f} s for {hours} site-hours: "
           f"{cpu / hours * 1e6:.2f} s per million site-hours")
 

@@ -200,3 +200,33 @@ def test_lazy_hash_reads_and_hashes_the_netcdf_met(tmp_path, capsys):
     bench.met_case(tmp_path, 1, 1)
     out = capsys.readouterr().out
     assert out.startswith("NetCDF met x1: ") and "% of the read" in out, out
+
+
+def test_air_unit_step_benchmark_counts_alarms_and_detections():
+    bench = _load("air_unit_step")
+    false_alarms, found = bench.run(2, "SO2", 3, 3, 52, 0.3, seed=5)
+    assert 0 <= false_alarms <= 2 and 0 <= found <= 1
+    assert bench.demo_notes() == []
+
+
+def test_met_degf_benchmark_runs():
+    bench = _load("met_degf")
+    false_days, found = bench.run("temperate", 1, 1, 3)
+    assert false_days >= 0 and 0 <= found <= 1
+
+
+def test_clock_and_decimal_comma_benchmarks_run():
+    clock = _load("clock_forward_gaps")
+    now, before = clock.run(20, 1, 2)
+    assert 0 <= now <= before <= 1
+    comma = _load("decimal_comma_hint")
+    assert len(comma.run(30)) == 3
+
+
+def test_met_row_shift_benchmark_takes_the_humidity():
+    bench = _load("met_row_shift")
+    import numpy as np
+    import pandas as pd
+    t = pd.date_range("2021-01-01T01:00", periods=48, freq="h").values
+    rh = bench.invented_humidity(np.full(48, 290.0) + np.sin(np.arange(48) / 4), t, 1)
+    assert rh.shape == (48,) and ((rh >= 0.05) & (rh <= 1.0)).all()

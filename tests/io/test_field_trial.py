@@ -394,9 +394,36 @@ def test_clock_going_forward_hour_is_hinted(tmp_path, readers, cat):
     p.write_text("\n".join(ln for ln in text.splitlines() if "2020-03-29T02:00" not in ln)
                  + "\n")
     _, led = readers["met"](p, cat)
-    note = next(n for n in led.notes if n.startswith("met alpha: 1 missing hour in 1 gap;"))
-    assert "1 h missing at 2020-03-29T01:00 UTC, in a month of clock changes: the clock " \
-           "going forward to summer time?" in note, note
+    note = next(n for n in led.notes if n.startswith("met alpha: 1 missing hour in 1 gap"))
+    assert "1 h missing at 2020-03-29T01:00 UTC, in the night to a Sunday of a month of " \
+           "clock changes: the clock going forward to summer time?" in note, note
+
+
+@pytest.mark.parametrize("start, hour", [("2020-03-24T01:00", "2020-03-25T02:00"),
+                                         ("2020-10-13T01:00", "2020-10-14T14:00")])
+def test_a_one_hour_gap_on_a_weekday_of_march_or_october_has_no_clock_hint(
+        tmp_path, readers, cat, start, hour):
+    """Old code: any one-hour gap of March, April, September, October or November got
+    the hint; clocks go forward in the night to a Sunday only."""
+    text = met_text(72, start=start)
+    p = tmp_path / "met.csv"
+    p.write_text("\n".join(ln for ln in text.splitlines() if hour not in ln) + "\n")
+    _, led = readers["met"](p, cat)
+    assert not any("clock going forward" in n for n in led.notes), led.notes
+    assert any(n.startswith("met alpha: 1 missing hour in 1 gap") for n in led.notes), led.notes
+
+
+def test_a_logger_dropping_many_single_hours_has_no_clock_hint(tmp_path, readers, cat):
+    """Old code: the Sunday-night gap among five other one-hour gaps of the same three
+    days got the hint; a clock skips one hour a year."""
+    text = met_text(72, start="2020-03-28T01:00")
+    drop = ("2020-03-29T02:00", "2020-03-28T05:00", "2020-03-28T09:00", "2020-03-29T15:00",
+            "2020-03-30T04:00", "2020-03-30T11:00")
+    p = tmp_path / "met.csv"
+    p.write_text("\n".join(ln for ln in text.splitlines() if not any(d in ln for d in drop))
+                 + "\n")
+    _, led = readers["met"](p, cat)
+    assert not any("clock going forward" in n for n in led.notes), led.notes
 
 
 def test_a_one_hour_gap_in_summer_has_no_clock_hint(tmp_path, readers, cat):
@@ -434,6 +461,44 @@ def test_a_decimal_comma_in_a_comma_file_is_hinted(tmp_path, readers, cat, reade
     with pytest.raises(InputError) as e:
         readers[reader](p, cat)
     assert "a decimal comma, as in '1,5'? write '1.5'" in str(e.value)
+
+
+def _whole_number_met():
+    """MET as a logger writing whole numbers writes it."""
+    out = []
+    for ln in MET.splitlines():
+        out.append(ln if ln.startswith(("#", "site")) else ",".join(
+            str(round(float(c))) if re.match(r"^-?\d+\.\d+$", c) else c
+            for c in ln.split(",")))
+    return out
+
+
+def test_a_stray_cell_among_whole_numbers_is_no_decimal_comma(tmp_path, readers, cat):
+    """Old code: "a decimal comma, as in '3,5'?" for any row too long holding two
+    neighbouring whole numbers; a file without a decimal in any column has no decimal
+    comma to write (benchmarks/decimal_comma_hint.py)."""
+    lines = _whole_number_met()
+    lines[5] = lines[5] + ",0"                    # a stray cell at the end
+    p = tmp_path / "met.csv"
+    p.write_text("\n".join(lines) + "\n")
+    with pytest.raises(InputError) as e:
+        readers["met"](p, cat)
+    msg = str(e.value)
+    assert msg.startswith(f"{p}, line 6: malformed CSV row (wrong number of fields)"), msg
+    assert "decimal comma" not in msg
+
+
+def test_a_numeric_sampler_id_and_a_stray_cell_is_no_decimal_comma(tmp_path, cat):
+    """Old code: "a decimal comma, as in '1,2'?" for a sampler id '1' typed '1,2'; a
+    joined number under sampler_id is no decimal comma."""
+    lines = AIR.splitlines()
+    lines[2] = lines[2].replace(",fp1,", ",1,2,")
+    p = tmp_path / "a.csv"
+    p.write_text("\n".join(lines) + "\n")
+    with pytest.raises(InputError) as e:
+        read_air(p, cat)
+    assert "malformed CSV row (wrong number of fields)" in str(e.value)
+    assert "decimal comma" not in str(e.value)
 
 
 # ------------------------------------------------------------------ sites.toml

@@ -142,6 +142,11 @@ def check_hours(sites, t, where, name_row, off_hour=None, moved=None):
     moved : ndarray of bool, optional
         Rows moved onto the whole UTC hour (a repeat they make gets a hint).
     """
+    nat = np.isnat(t)
+    if nat.any():
+        raise where(int(np.flatnonzero(nat)[0]), "missing time (NaT: a fill value or a "
+                    "number that does not decode as a date in the time coordinate?)",
+                    "a time for every index")
     if off_hour is None:
         off_hour = t != methours.floor_hour(t)
     if off_hour.any():

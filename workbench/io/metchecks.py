@@ -20,6 +20,7 @@ from .metvars import MET_VARIABLES, convert_met
 
 #: The variables every met row needs: an empty cell of one flags its row.
 REQUIRED_NAMES = tuple(k for k, (_, req, _) in MET_VARIABLES.items() if req)
+from .metdegf import fahrenheit_days
 from .plausible import SENTINELS
 
 #: Hard ranges (internal units) beyond which a value is masked (common practice).
@@ -365,6 +366,12 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
             if written_in(unit, "degF"):
                 _celsius_as_f(values["temperature"], med, frame, t, per_site, mask, unit)
             else:
+                days = fahrenheit_days(np.where(med > KELVIN_MEDIAN_MIN, np.nan,
+                                                values["temperature"]), codes, t)
+                mask("temperature", days,
+                     f"temperature looks like degF although the header says {unit or 'degC'}: "
+                     "the day's mean stands over 20 K above the median of the 121 days "
+                     "around it and, read as degF, matches it (masked)")
                 t_k = np.where(med > KELVIN_MEDIAN_MIN, np.nan, values["temperature"])
                 g = frame.assign(v=t_k, hot=t_k > RANGES["temperature"][1]).groupby("site")
                 n_hot = g["hot"].transform("sum").to_numpy()
@@ -422,36 +429,60 @@ def describe_gaps(met) -> list[str]:
         notes.append(f"met {site}: {n_miss} missing hour{'s' if n_miss != 1 else ''} in "
                      f"{len(starts)} gap{'s' if len(starts) != 1 else ''}; longest "
                      f"{int(ends[k] - starts[k])} h from {str(times[a + starts[k]])[:16]} UTC"
-                     + clock_forward_hint(times[a + starts[(ends - starts) == 1]]))
+                     + clock_forward_hint(times[a + starts[(ends - starts) == 1]],
+                                          (b - a + 1) / 8766.0))
     return notes
 
 
-def clock_forward_hint(single) -> str:
-    """A hint when a gap of one hour falls in a month of clock changes: the hour a clock
-    skips when it goes forward to summer time, after which a naive label is an hour
+#: Months in which clocks go forward to summer time (March, April in the north;
+#: September, October in the south; common practice).
+CLOCK_FORWARD_MONTHS = (3, 4, 9, 10)
+#: Window of the hour a clock skips, in UTC [h after Saturday 00:00 UTC]: clocks go
+#: forward in the night of Saturday to Sunday at 01:00-03:00 local time (common
+#: practice), which is Saturday 14:00 to Sunday 12:00 UTC for offsets of -9 to +12 h.
+CLOCK_FORWARD_UTC_WINDOW = (14, 36)
+#: Most one-hour gaps per year of a site's record for the hint [-]: a clock skips one
+#: hour a year; a logger that drops single hours often drops one on a Sunday night by
+#: chance (our choice, benchmarks/clock_forward_gaps.py).
+CLOCK_FORWARD_MAX_PER_YEAR = 2.0
+
+
+def clock_forward_hint(single, years: float = 1.0) -> str:
+    """A hint when a gap of one hour sits where a clock going forward to summer time
+    skips one: a night of Saturday to Sunday (:data:`CLOCK_FORWARD_UTC_WINDOW`) in a
+    month of clocks going forward (:data:`CLOCK_FORWARD_MONTHS`), at a site with few
+    one-hour gaps (:data:`CLOCK_FORWARD_MAX_PER_YEAR`); after it a naive label is an hour
     late (the twin of :func:`workbench.io.methours.clock_change_hint`); "" otherwise.
 
     Parameters
     ----------
     single : ndarray of datetime64
         The missing hour of each one-hour gap (UTC hour ends).
+    years : float
+        Length of the site's record [year].
 
-    >>> clock_forward_hint(np.array(["2020-03-29T01:00"], "datetime64[ns]"))[:52]
-    '; 1 h missing at 2020-03-29T01:00 UTC, in a month of'
+    >>> clock_forward_hint(np.array(["2020-03-29T01:00"], "datetime64[ns]"))[:51]
+    '; 1 h missing at 2020-03-29T01:00 UTC, in the night'
     >>> clock_forward_hint(np.array(["2020-07-05T01:00"], "datetime64[ns]"))
     ''
+    >>> clock_forward_hint(np.array(["2020-03-25T01:00"], "datetime64[ns]"))   # a Wednesday
+    ''
     """
-    from .methours import CLOCK_BACK_MONTHS
     single = np.asarray(single, "datetime64[ns]")
+    if len(single) > CLOCK_FORWARD_MAX_PER_YEAR * max(years, 1.0):
+        return ""
     months = single.astype("datetime64[M]").astype(int) % 12 + 1
-    hit = single[np.isin(months, CLOCK_BACK_MONTHS)]
+    # hours since the Saturday 00:00 UTC before: 1970-01-03 was a Saturday
+    since = ((single - np.datetime64("1970-01-03", "ns")) // np.timedelta64(1, "h")) % 168
+    lo, hi = CLOCK_FORWARD_UTC_WINDOW
+    hit = single[np.isin(months, CLOCK_FORWARD_MONTHS) & (since >= lo) & (since <= hi)]
     if not len(hit):
         return ""
     more = f" (and {len(hit) - 1} more)" if len(hit) > 1 else ""
-    return (f"; 1 h missing at {str(hit[0])[:16]} UTC{more}, in a month of clock changes: "
-            "the clock going forward to summer time? Then every later label is an hour "
-            "late; write the times in the site's standard time (utc_offset_h) or with "
-            "their offset, e.g. 01:00+01:00 then 03:00+02:00")
+    return (f"; 1 h missing at {str(hit[0])[:16]} UTC{more}, in the night to a Sunday "
+            "of a month of clock changes: the clock going forward to summer time? Then "
+            "every later label is an hour late; write the times in the site's standard "
+            "time (utc_offset_h) or with their offset, e.g. 01:00+01:00 then 03:00+02:00")
 
 
 def gauge_comparison(met, samples, low=0.5, high=2.0, min_depth_mm=2.0):

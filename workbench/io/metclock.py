@@ -242,23 +242,44 @@ def _hours(x) -> str:
     return f"{v if v != 0 else 0.0:+.1f} h"                  # no "-0.0"
 
 
-def _cause(lag, off) -> str:
+def _cause(lag, off, utc_labels=False) -> str:
     """The likely causes of a whole-record lag `lag` [h] at a site of ``utc_offset_h``
-    `off` [h], and what to write [text]."""
+    `off` [h], and what to write [text]; `utc_labels`: the file's times are read as UTC
+    (NetCDF, zarr), not at ``utc_offset_h``."""
     n = int(np.rint(lag))
-    true = off + n
-    zone = _zone(true)
-    local = (f"labels in local time of UTC{true:+g} while utc_offset_h = {off:g} (if so, "
-             f"set utc_offset_h = {true:g} in sites.toml, or write each label with its zone, "
-             f"e.g. 2021-06-01T13:00{zone})")
+    way = "late" if n > 0 else "early"
+    if utc_labels:
+        plain = (f"the whole record sits {abs(n)} h {way} against its declared clock (UTC, "
+                 f"as NetCDF and zarr times are read): every variable on the logger's clock "
+                 f"is read {abs(n)} h {way}")
+        local = (f"times in local time of UTC{n:+g}"
+                 + (" (the site's utc_offset_h)" if n == off else "")
+                 + f" written without their zone? If so, convert them to UTC or give the "
+                 f"time units their offset, e.g. 'hours since 2021-01-01 00:00:00{_zone(n)}'")
+    else:
+        true = off + n
+        plain = (f"the whole record sits {abs(n)} h {way} against its declared clock "
+                 f"(UTC{off:+g}, utc_offset_h): every column on the logger's clock is read "
+                 f"{abs(n)} h {way}")
+        local = (f"labels in local time of UTC{true:+g} while utc_offset_h = {off:g} (if so, "
+                 f"set utc_offset_h = {true:g} in sites.toml, or write each label with its "
+                 f"zone, e.g. 2021-06-01T13:00{_zone(true)})")
     if n > 0:
         extra = ("; or hour-ending labels under '# time_label: start' (remove that line; "
                  "NetCDF/zarr: the time_label attribute)") if n == 1 else ""
-        return f"the radiation runs late against the sun: {local}{extra}"
+        if utc_labels and n == 1:
+            extra = ("; or hour-ending times under the global attribute time_label = "
+                     "\"start\" (remove it)")
+        return (f"the radiation runs late against the sun: {plain}. "
+                f"{local[:1].upper()}{local[1:]}{extra}")
     extra = ("; or hour-beginning labels read as hour ends (write '# time_label: start' "
              "above the header; NetCDF/zarr: the global attribute time_label = \"start\")"
              ) if n == -1 else ""
-    return f"the radiation runs early against the sun: {local}{extra}"
+    if utc_labels and n == -1:
+        extra = ("; or hour-beginning times read as hour ends (set the global attribute "
+                 "time_label = \"start\")")
+    return (f"the radiation runs early against the sun: {plain}. "
+            f"{local[:1].upper()}{local[1:]}{extra}")
 
 
 def _zone(hours) -> str:
@@ -302,7 +323,7 @@ def _half_hour(lag) -> str:
             "cloud maximum can pull a whole-hour error down to this")
 
 
-def notes_from_lags(table, site_ids, catalogue, file_name) -> list[str]:
+def notes_from_lags(table, site_ids, catalogue, file_name, utc_labels=False) -> list[str]:
     """The ledger notes of :func:`site_lags`'s table [text].
 
     Parameters
@@ -314,6 +335,9 @@ def notes_from_lags(table, site_ids, catalogue, file_name) -> list[str]:
         For ``utc_offset_h`` and the hemisphere.
     file_name : str
         The met file's name.
+    utc_labels : bool
+        The file's times are read as UTC (NetCDF, zarr): a whole-hour lag is named as
+        local times written without their zone.
 
     Returns
     -------
@@ -360,7 +384,7 @@ def notes_from_lags(table, site_ids, catalogue, file_name) -> list[str]:
         if abs(whole) >= LAG_NOTE_H and not mixed:
             by_year = (f"; it changes between years ({each}): a logger clock reset or "
                        f"drifting?" if apart else "")
-            notes.append(f"{head}: lag {_hours(whole)} ({seen}): {_cause(whole, off)}"
+            notes.append(f"{head}: lag {_hours(whole)} ({seen}): {_cause(whole, off, utc_labels)}"
                          f"{by_year}{kept}")
         elif apart:
             notes.append(f"{head}: the lag changes between years ({each}): a logger clock "
@@ -376,7 +400,8 @@ def notes_from_lags(table, site_ids, catalogue, file_name) -> list[str]:
 GROUP_RECORDS = 400_000
 
 
-def clock_notes(met, catalogue, file_name, group_records=None) -> list[str]:
+def clock_notes(met, catalogue, file_name, group_records=None,
+                utc_labels=False) -> list[str]:
     """The clock check of a met Dataset: :func:`site_lags`, then :func:`notes_from_lags`.
 
     Parameters
@@ -390,6 +415,8 @@ def clock_notes(met, catalogue, file_name, group_records=None) -> list[str]:
         Records per group [record] (default :data:`GROUP_RECORDS`): the reader's own
         group, so that the check's peak memory is the reader's, whatever the number of
         sites.
+    utc_labels : bool
+        As :func:`notes_from_lags`.
 
     Returns
     -------
@@ -407,7 +434,8 @@ def clock_notes(met, catalogue, file_name, group_records=None) -> list[str]:
     for k in range(0, len(ids), step):
         rad = np.asarray(met["solar_radiation"].isel(site=slice(k, k + step)).values, float)
         parts.append(site_lags(rad, time_end, lat[k:k + step], lon[k:k + step]))
-    return notes_from_lags(pd.concat(parts, ignore_index=True), ids, catalogue, file_name)
+    return notes_from_lags(pd.concat(parts, ignore_index=True), ids, catalogue, file_name,
+                           utc_labels)
 
 
 def add_clock_notes(met, ledger, catalogue, path, group_records=None) -> None:
@@ -425,5 +453,8 @@ def add_clock_notes(met, ledger, catalogue, path, group_records=None) -> None:
     group_records : int, optional
         As :func:`clock_notes`.
     """
-    ledger.notes.extend(clock_notes(met, catalogue, Path(path).name, group_records))
+    from .zarrstore import is_zarr_path
+    path = Path(path)
+    utc = path.suffix in (".nc", ".nc4", ".netcdf") or is_zarr_path(path)
+    ledger.notes.extend(clock_notes(met, catalogue, path.name, group_records, utc))
 

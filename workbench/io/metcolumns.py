@@ -264,6 +264,13 @@ def column_checks(values, codes, n_sites, elevation_deg, raw_headers=None, time_
             and not any(f[0] == "temperature" for f in out)):
         out.extend(_temperature_shift(values["temperature"], sane_radiation, codes,
                                       n_sites, time_end, head("temperature")))
+    # the humidity pasted rows off, judged the same way (its minimum as a maximum)
+    if (sane_radiation is not None and time_end is not None
+            and "relative_humidity" in values
+            and not any(f[0] == "relative_humidity" for f in out)):
+        out.extend(_temperature_shift(-values["relative_humidity"], sane_radiation, codes,
+                                      n_sites, time_end, head("relative_humidity"),
+                                      name="relative_humidity"))
     return out
 
 
@@ -327,12 +334,17 @@ def _wind_as_temperature(u, codes, n_sites, time_end, head):
              f"to hour (kept)") for s in np.flatnonzero(bad)]
 
 
-def _temperature_shift(temperature, radiation, codes, n_sites, time_end, head):
+def _temperature_shift(temperature, radiation, codes, n_sites, time_end, head,
+                       name="temperature"):
     """The findings of :func:`temperature_lag_steps`: a change of at least
     :data:`SHIFT_STEP_H` at a line with one side's lag outside :data:`PLAUSIBLE_LAG_H`;
-    the rows of that side are flagged (kept) [list of (variable, rows, reason)]."""
-    step, day, before, after, days = temperature_lag_steps(temperature, radiation, codes,
-                                                           n_sites, time_end)
+    the rows of that side are flagged (kept) [list of (variable, rows, reason)].
+    `name` ``"relative_humidity"``: `temperature` is the humidity, negated (its daily
+    minimum judged as a temperature's maximum)."""
+    humid = name == "relative_humidity"
+    step, day, before, after, days = temperature_lag_steps(
+        temperature, radiation, codes, n_sites, time_end,
+        amplitude_min=HUMIDITY_AMPLITUDE if humid else None)
     lo, hi = PLAUSIBLE_LAG_H
     out_before = (before < lo) | (before > hi)
     out_after = (after < lo) | (after > hi)
@@ -341,6 +353,9 @@ def _temperature_shift(temperature, radiation, codes, n_sites, time_end, head):
         return []
     mid_day = (np.asarray(time_end, dtype="datetime64[ns]")
                - np.timedelta64(30, "m")).astype("datetime64[D]")
+    what = ("its daily minimum lags the solar radiation's maximum" if humid else
+            "its daily cycle lags the solar radiation's")
+    who = "the humidity is lowest" if humid else "a temperature lags the sun"
     found = []
     for s in np.flatnonzero(bad):                       # a handful of sites
         first, last = _change_day(days[days["site"] == s], day[s], before[s], after[s])
@@ -349,18 +364,23 @@ def _temperature_shift(temperature, radiation, codes, n_sites, time_end, head):
         later = mid_day >= (first if out_after[s] else last)
         rows = (codes == s) & (later if out_after[s] else ~later)
         wrong, right = (after[s], before[s]) if out_after[s] else (before[s], after[s])
-        moved = wrong - right                          # + : the temperature comes late
+        moved = wrong - right                          # + : the column comes late
         way = "down" if moved > 0 else "up"
         side = "after" if out_after[s] else "before"
-        found.append(("temperature", rows,
-                      f"{head}: its daily cycle lags the solar radiation's by "
+        found.append((name, rows,
+                      f"{head}: {what} by "
                       f"{wrong:+.1f} h (median of {SHIFT_WINDOW_DAYS} days with a clear "
                       f"daily cycle) {side} a change {when}, against {right:+.1f} h on "
-                      f"the other side: outside the {lo:g} to {hi:+g} h a temperature "
-                      f"lags the sun, and a change of {abs(step[s]):.1f} h at once, not "
+                      f"the other side: outside the {lo:g} to {hi:+g} h {who} after the "
+                      f"sun, and a change of {abs(step[s]):.1f} h at once, not "
                       f"with the season: the column pasted about {abs(round(moved)):.0f} "
                       f"rows {way} against the others? (kept)"))
     return found
+
+
+#: Smallest daily amplitude of the relative humidity for a judged day [-] (0.05, 5 %RH:
+#: an overcast or foggy day has no phase; our choice, as TEMPERATURE_AMPLITUDE_K).
+HUMIDITY_AMPLITUDE = 0.05
 
 
 #: Days on either side of a candidate line whose median lags are compared [d] (a month:
@@ -418,8 +438,10 @@ def _change_day(days, rough, before, after, window=SHIFT_WINDOW_DAYS):
 
 
 def temperature_lag_steps(temperature, radiation, codes, n_sites, time_end,
-                          window=SHIFT_WINDOW_DAYS):
-    """The temperature's daily lag behind the radiation and its largest change per site.
+                          window=SHIFT_WINDOW_DAYS, amplitude_min=None):
+    """The temperature's daily lag behind the radiation and its largest change per site
+    (any column whose daily maximum follows the sun's: the negated relative humidity,
+    whose minimum comes with the warmest hours, with its own `amplitude_min`).
 
     Parameters
     ----------
@@ -432,6 +454,9 @@ def temperature_lag_steps(temperature, radiation, codes, n_sites, time_end,
         Hour end of each row [UTC].
     window : int
         Days compared on either side [d].
+    amplitude_min : float, optional
+        Smallest daily amplitude of the column for a judged day [its unit] (default
+        :data:`TEMPERATURE_AMPLITUDE_K`).
 
     Returns
     -------
@@ -458,7 +483,8 @@ def temperature_lag_steps(temperature, radiation, codes, n_sites, time_end,
     ok = np.isfinite(tt).all(axis=1) & np.isfinite(rr).all(axis=1)
     ph_t, amp_t = _harmonic_phase(np.where(ok[:, None], tt, 0.0))
     ph_r, amp_r = _harmonic_phase(np.where(ok[:, None], rr, 0.0))
-    ok &= (amp_r >= RADIATION_AMPLITUDE) & (amp_t >= TEMPERATURE_AMPLITUDE_K)
+    ok &= (amp_r >= RADIATION_AMPLITUDE) & (amp_t >= (
+        TEMPERATURE_AMPLITUDE_K if amplitude_min is None else amplitude_min))
     lag = (ph_t - ph_r + 12.0) % 24.0 - 12.0
     d_site = (uniq // 10_000_000)[ok]
     d_day = (uniq % 10_000_000)[ok]

@@ -253,7 +253,8 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
             return None
         if ("fields",) in firsts:    # the line reader's parser refuses the file first
             line = firsts[("fields",)][0]
-            raise fields_error(path, line, len(names), _line_cells(path, line))
+            raise fields_error(path, line, len(names), _line_cells(path, line),
+                               list(raw_headers.values()), _first_rows(path, len(names)))
         got = None
         zones = None
         if not any(k[0] in ("site", "time") for k in firsts):   # else raised before
@@ -410,6 +411,23 @@ class _ChunkParser:
         """The first row of each kind of failure (metlocate), or None."""
         return metlocate.suspicious_rows(chunk, self.names, self.used, self.index, self.off_ns,
                                          self.label, self.hour)
+
+
+def _first_rows(path, n_fields: int, n: int = 2000):
+    """The first `n` rows of `n_fields` cells of a (gzipped) CSV (for the decimal-comma
+    hint: which columns hold decimals); None when it cannot be read."""
+    import csv
+    import gzip
+    import itertools
+    try:
+        with open(path, "rb") as f:
+            gz = f.read(2) == b"\x1f\x8b"
+        opener = gzip.open if gz else open
+        with opener(path, "rt", encoding="utf-8-sig", errors="replace", newline="") as f:
+            rows = csv.reader(ln for ln in itertools.islice(f, n) if not ln.startswith("#"))
+            return [r for r in rows if len(r) == n_fields][1:]
+    except (OSError, EOFError, ValueError, csv.Error):
+        return None
 
 
 def _line_cells(path, line: int):

@@ -182,6 +182,12 @@ def end_of_day_note(file_name: str, columns, lines) -> str:
 
 #: Two digits either side of a comma: a decimal comma (1,5) in a comma-separated file.
 _DECIMAL_COMMA = re.compile(r"^[-+]?\d+$")
+#: A cell that reads as a timestamp (a date first).
+_STAMP = re.compile(r"^\d{4}-\d\d-\d\d|^\d\d?[./]\d\d?[./]\d{2,4}")
+#: Header names of time columns: their cells must stay timestamps after a join.
+_TIME_NAMES = ("time", "start", "end", "date")
+#: A number with a decimal point.
+_DECIMAL = re.compile(r"^[-+]?\d*\.\d+$")
 
 
 def check_unit_brackets(path, line: int, column: str) -> None:
@@ -208,21 +214,93 @@ def check_unit_brackets(path, line: int, column: str) -> None:
                      "brackets")
 
 
-def fields_error(path, line, n_head, cells=None) -> InputError:
-    """The error of a CSV row with another number of fields than the header; with a hint
-    when it has more and two neighbouring cells read as the two halves of a number
-    with a decimal comma (``1,5``: a spreadsheet of a decimal-comma locale exporting
-    with commas as separators).
+def decimal_comma_pairs(cells, header, others=None) -> list | None:
+    """The pairs of neighbouring cells that, joined back with a comma, give the row the
+    header's fields with every joined cell under a numeric column (not a time, site,
+    sampler, flag or method column) that holds numbers with a decimal point in the other
+    rows (`others`, when given), and every time column's cell a timestamp; None when no
+    such joining exists.
 
-    >>> str(fields_error("p.csv", 3, 3, ["alpha", "1", "5", "2"]))[:95]
+    Parameters
+    ----------
+    cells : list of str
+        The row's cells (more than the header's).
+    header : list of str
+        The header's cells.
+    others : list of list of str, optional
+        Other rows of the file, of the header's length.
+
+    Returns
+    -------
+    list of int or None
+        The index of the first cell of each pair.
+
+    >>> decimal_comma_pairs(["a", "2020-01-01T01:00", "1", "5", "2"],
+    ...                     ["site", "time", "x [m]", "y [m]"])
+    [2]
+    >>> decimal_comma_pairs(["a", "1", "5", "2020-01-01T01:00", "2"],
+    ...                     ["site", "id", "time", "x [m]"]) is None
+    True
+    """
+    from itertools import combinations
+    c = [str(x).strip() for x in cells]
+    h = [str(x).strip() for x in header]
+    k = len(c) - len(h)
+    cand = [i for i in range(len(c) - 1)
+            if _DECIMAL_COMMA.match(c[i]) and c[i + 1].isdigit()]
+    if k < 1 or len(cand) < k or len(cand) > 12:
+        return None
+    for pick in combinations(cand, k):
+        if any(b - a < 2 for a, b in zip(pick, pick[1:])):
+            continue                              # overlapping pairs
+        row, joined, i = [], [], 0
+        while i < len(c):
+            if i in pick:
+                joined.append(len(row))
+                row.append(f"{c[i]},{c[i + 1]}")
+                i += 2
+            else:
+                row.append(c[i])
+                i += 1
+        names = [x.split("[")[0].strip().lower() for x in h]
+        if any(_text_column(names[j]) or (others is not None and not _has_decimals(
+                others, j)) for j in joined):
+            continue
+        if all(_STAMP.match(row[j]) or not row[j] for j, n in enumerate(names)
+               if n in _TIME_NAMES):
+            return list(pick)
+    return None
+
+
+def _text_column(name: str) -> bool:
+    return (name in _TIME_NAMES or name in ("site", "sampler_id", "id", "flags", "flag",
+                                            "comment", "note", "method")
+            or name.startswith("method_") or name.endswith("_method"))
+
+
+def _has_decimals(rows, j) -> bool:
+    return any(len(r) > j and _DECIMAL.match(str(r[j]).strip()) for r in rows)
+
+
+def fields_error(path, line, n_head, cells=None, header=None, others=None) -> InputError:
+    """The error of a CSV row with another number of fields than the header; with a hint
+    when it has more and joining pairs of neighbouring whole numbers back into numbers
+    with a decimal comma (``1,5``: a spreadsheet of a decimal-comma locale exporting
+    with commas as separators) gives it the header's fields, each joined number under a
+    numeric column that holds decimals in the `others` rows and the time columns holding
+    timestamps (:func:`decimal_comma_pairs`).
+
+    >>> str(fields_error("p.csv", 3, 3, ["alpha", "1", "5", "2"], ["site", "a [m]", "b [m]"]))[:95]
     "p.csv, line 3: malformed CSV row (wrong number of fields; a decimal comma, as in '1,5'? write '"
+    >>> str(fields_error("p.csv", 3, 3, ["alpha", "1", "5", "2"], ["site", "time", "b [m]"]))
+    'p.csv, line 3: malformed CSV row (wrong number of fields), expected 3 fields as in the header'
     """
     hint = ""
-    if cells is not None and len(cells) > n_head:
-        c = [str(x).strip() for x in cells]
-        pair = next((f"{a},{b}" for a, b in zip(c, c[1:])
-                     if _DECIMAL_COMMA.match(a) and b.isdigit()), None)
-        if pair is not None:
+    if cells is not None and header is not None and len(cells) > n_head:
+        pairs = decimal_comma_pairs(cells, header, others)
+        if pairs is not None:
+            c = [str(x).strip() for x in cells]
+            pair = f"{c[pairs[0]]},{c[pairs[0] + 1]}"
             hint = (f"; a decimal comma, as in {pair!r}? write {pair.replace(',', '.')!r}, or "
                     "export as 'CSV UTF-8, comma-delimited' with a decimal point")
     return InputError(f"malformed CSV row (wrong number of fields{hint})", file=path,
@@ -315,11 +393,13 @@ class RawTable:
                 raise InputError("a quote opened and not closed", file=path,
                                  line=odd[0] + 1 + n_meta, value=rest[odd[0]][:60],
                                  expected='quotes in pairs ("...") around a cell') from None
-            rows = csv.reader(io.StringIO(body))
-            n_head = len(next(rows))
-            bad = next(((k + 2 + n_meta, r) for k, r in enumerate(rows)
+            rows = list(csv.reader(io.StringIO(body)))
+            header = rows[0]
+            n_head = len(header)
+            bad = next(((k + 2 + n_meta, r) for k, r in enumerate(rows[1:])
                         if r and len(r) != n_head), (None, None))
-            raise fields_error(path, bad[0], n_head, bad[1]) from None
+            others = [r for r in rows[1:] if len(r) == n_head]
+            raise fields_error(path, bad[0], n_head, bad[1], header, others) from None
         lines = np.arange(len(df)) + n_meta + 2
         data = body[body.find("\n") + 1:] if "\n" in body else ""
         if '"' in data or _BLANK.search(data):            # else no cell has any to strip

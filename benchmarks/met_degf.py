@@ -1,0 +1,80 @@
+"""Detection and false alarms of the met check for days written in degF under a degC
+header (workbench/io/metdegf.py; docs/data_formats.md section 4).
+
+Run: ``python benchmarks/met_degf.py [--years 3 --seeds 10]``.  Invented hourly
+temperatures of five climates (annual mean, seasonal amplitude, sd of a synoptic AR(1)
+of 3 days' memory, diurnal amplitude): tundra, continental, temperate, hot desert,
+tropical.  Clean records count false alarms (days found per site-year); slipped ones
+hold a run of L days at a random place written in degF, and count the share of the run's
+days found.
+"""
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+import numpy as np
+from scipy.signal import lfilter
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT))
+from workbench.constants import ZERO_CELSIUS  # noqa: E402
+from workbench.io.metdegf import fahrenheit_days  # noqa: E402
+
+#: name -> (annual mean, seasonal amplitude, synoptic sd, diurnal amplitude) [degC, K]
+CLIMATES = {"tundra": (-12.0, 20.0, 7.0, 3.0), "continental": (3.0, 18.0, 6.0, 6.0),
+            "temperate": (10.0, 7.0, 3.5, 4.0), "hot desert": (28.0, 10.0, 3.0, 9.0),
+            "tropical": (27.0, 1.5, 1.2, 4.0)}
+
+
+def invented_year(rng, climate, years):
+    """Hourly temperature [degC] and its hours."""
+    mean, amp, sd, diurnal = CLIMATES[climate]
+    n = 24 * 365 * years
+    t = np.datetime64("2019-01-01T01:00") + np.arange(n) * np.timedelta64(1, "h")
+    doy = np.arange(n) / 24.0 % 365.0
+    hour = np.arange(n) % 24
+    a = np.exp(-1.0 / 72.0)
+    syn = lfilter([np.sqrt(1 - a * a)], [1, -a], rng.normal(0, sd, n))
+    x = (mean - amp * np.cos(2 * np.pi * (doy - 15) / 365) + syn
+         - diurnal * np.cos(2 * np.pi * (hour - 3) / 24))
+    return t, x
+
+
+def run(climate, years, seeds, run_days):
+    false_days = found = total = 0
+    for seed in range(seeds):
+        rng = np.random.default_rng(seed)
+        t, x = invented_year(rng, climate, years)
+        codes = np.zeros(len(t), np.int64)
+        hit = fahrenheit_days(x + ZERO_CELSIUS, codes, t)
+        false_days += len(np.unique(t[hit].astype("datetime64[D]")))
+        if run_days:
+            a = 24 * int(rng.integers(0, 365 * years - run_days))
+            y = x.copy()
+            y[a:a + 24 * run_days] = y[a:a + 24 * run_days] * 1.8 + 32.0
+            hit = fahrenheit_days(y + ZERO_CELSIUS, codes, t)
+            found += hit[a:a + 24 * run_days].sum() / 24
+            total += run_days
+    return false_days / (seeds * years), (found / total if total else np.nan)
+
+
+def main(argv=None):
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--years", type=int, default=3)
+    ap.add_argument("--seeds", type=int, default=10)
+    args = ap.parse_args(argv)
+    print("| climate | run [days] | false days per site-year (clean) | run days found |")
+    print("|---|---|---|---|")
+    rows = []
+    for climate in CLIMATES:
+        for days in (1, 3, 14, 45):
+            fa, det = run(climate, args.years, args.seeds, days)
+            rows.append((climate, days, fa, det))
+            print(f"| {climate} | {days} | {fa:.3f} | {det:.2f} |", flush=True)
+    return rows
+
+
+if __name__ == "__main__":
+    main()
