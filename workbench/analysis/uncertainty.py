@@ -11,7 +11,8 @@ draw is a few matrix products per site and never re-runs the engine:
   with :math:`A` the sampling period's contribution, :math:`F` the Vd model factor
   (log-normal, median 1, systematic: shared by every site and year, correlated among
   species through the shared micrometeorology, with a part of its own per land-use
-  class of the receptor, ``vd_class_fraction``), :math:`\\delta` the analytical error
+  class of the receptor, ``vd_class_fraction``, and one of the site's own,
+  ``vd_site_gsd``), :math:`\\delta` the analytical error
   of the sample (random per sample) times its laboratory's calibration bias
   (systematic per laboratory period and species), :math:`\\phi` the share of its deposition in the
   period that its hours without a modelled Vd carry (gap-filled, or missing) and
@@ -26,7 +27,9 @@ draw is a few matrix products per site and never re-runs the engine:
   by its years; a piece under two gauges by the share of its hours under each, in the
   precipitation and the PWM's weights alike), :math:`\\varepsilon` the depth error
   and :math:`\\delta` the analytical error (random per sample) times the
-  laboratory's calibration bias (systematic: one per ion and laboratory period); a PWM
+  laboratory's calibration bias (systematic: one per ion and laboratory period, shared
+  by the sites naming one laboratory); under ``bulk_correction = "scale_wet"`` the
+  bulk samples' part of D takes a drawn ``bulk_wet_factor``; a PWM
   filled from the multi-year seasonal means gets its own error instead, and the
   non-sea-salt sulfate is recomputed from the drawn SO4 and tracer PWMs.
 
@@ -124,12 +127,14 @@ class UncertaintyOptions:
         Relative standard deviation of a precipitation laboratory's calibration bias
         [1], systematic: one draw per ion and laboratory period of a site (split at its
         ``what = "laboratory"`` changes), shared by every sample that laboratory
-        analysed; 0.03 (from memory of interlaboratory comparisons of precipitation
+        analysed (a laboratory named in the site catalogue: one draw per ion for every
+        site naming it, docs/methods_uncertainty.md); 0.03 (from memory of interlaboratory comparisons of precipitation
         chemistry: most laboratories within a few percent of the reference values for
         the major ions).
     lab_bias_air_rel_sd : float
         The same for the air samples' laboratory, a laboratory of its own (drawn apart
-        from the precipitation laboratory's); 0.05 (from memory: filter and denuder
+        from the precipitation laboratory's, unless the catalogue names one laboratory
+        for both: then one draw per analysed ion, e.g. sulfate); 0.05 (from memory: filter and denuder
         extracts add their extraction and blanks to the analysis).
     vd_class_fraction : float
         Share of each species' own log-variance of the Vd factor (the part not shared
