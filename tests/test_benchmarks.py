@@ -200,3 +200,13 @@ def test_lazy_hash_reads_and_hashes_the_netcdf_met(tmp_path, capsys):
     bench.met_case(tmp_path, 1, 1)
     out = capsys.readouterr().out
     assert out.startswith("NetCDF met x1: ") and "% of the read" in out, out
+
+
+def test_uncertainty_network_prints_its_ranges(scenario, capsys):
+    bench = _load("uncertainty_network")
+    out = bench.main(["--scenario", str(scenario), "--draws", "20",
+                      "--set", "vd_site_gsd=1.0", "--set", "lab_bias_filter_pack=false"])
+    text = capsys.readouterr().out
+    assert "S network sum" in text and "ridge" in text
+    lo, mid, hi = out["intervals"]["S network sum, span [eq/ha/yr]"]
+    assert lo <= mid <= hi and out["peak_mb"] > 0
