@@ -8,8 +8,10 @@ by the calendar year; the random errors of a sample (depth, analyses, gap-filled
 by the sample's identity (sampler id, start: :func:`.layer.sample_identity`) and what
 they are of; a filled PWM's error by its period's bounds; a later gauge period's catch
 by the site and the instant of its change, a laboratory's calibration bias by the site,
-precipitation or air, the ion or species and its period's first instant, a land-use
-class's part of the Vd factors by the seed and the class.  So a site, a site-year and a
+precipitation or air, the ion or species and its period's first instant (a laboratory
+the catalogue names: by the seed, its id and the analysed ion, so every site naming it
+shares the draw), a land-use class's part of the Vd factors by the seed and the class,
+a site's own Vd factor and its bulk-collector factor by the site.  So a site, a site-year and a
 sample draw the same numbers in every run that holds them (docs/methods_uncertainty.md).
 """
 from __future__ import annotations
