@@ -230,3 +230,13 @@ def test_met_row_shift_benchmark_takes_the_humidity():
     t = pd.date_range("2021-01-01T01:00", periods=48, freq="h").values
     rh = bench.invented_humidity(np.full(48, 290.0) + np.sin(np.arange(48) / 4), t, 1)
     assert rh.shape == (48,) and ((rh >= 0.05) & (rh <= 1.0)).all()
+
+
+def test_uncertainty_network_prints_its_ranges(scenario, capsys):
+    bench = _load("uncertainty_network")
+    out = bench.main(["--scenario", str(scenario), "--draws", "20",
+                      "--set", "vd_site_gsd=1.0", "--set", "lab_bias_filter_pack=false"])
+    text = capsys.readouterr().out
+    assert "S network sum" in text and "ridge" in text
+    lo, mid, hi = out["intervals"]["S network sum, span [eq/ha/yr]"]
+    assert lo <= mid <= hi and out["peak_mb"] > 0

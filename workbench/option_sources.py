@@ -222,6 +222,13 @@ UNCERTAINTY = {
     "vd_class_fraction": ("our choice", "0.5, no published value: a class's own surface "
                           "terms (Rc, its roughness) err apart from another class's; one "
                           "receptor's spread kept"),
+    "vd_site_gsd": ("our choice", "1.2, from memory of the tens of percent by which fluxes "
+                    "measured a few hundred metres apart over one surface differ"),
+    "lab_bias_filter_pack": ("common practice", "true: a filter pack's gas and particle "
+                             "filters are extracted and run in one batch against one "
+                             "calibration"),
+    "bulk_factor_rel_sd": ("from memory", "0.1: wet-only / bulk ratios of rural sites "
+                           "spread over roughly 0.7-0.9 around the typical 0.8"),
 }
 
 SENSITIVITY = {

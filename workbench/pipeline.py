@@ -256,6 +256,20 @@ class Study:
         """Wet deposition over `periods` (None without precipitation samples)."""
         return self._wet_node(wet_options, self._as_periods_node(periods)).value
 
+    def collector_split(self, wet_options, periods: pd.DataFrame, overrides=None):
+        """The bulk part of each period's wet deposition at the sites whose collector
+        changed (the ``collector_split`` stage of :meth:`run`), or None."""
+        cat = self._catalogue_node(overrides)
+        c_history = collector_history(cat.value)
+        if not c_history or self.inputs.precipitation is None:
+            return None
+        return self._run("collector_split", {"wet": wet_options},
+                         {"screened": self._screened_node(wet_options),
+                          "periods": self._as_periods_node(periods),
+                          "met": self._input("met", self.inputs.met)},
+                         {"history": c_history,
+                          "collectors": tuple((s.id, s.collector) for s in cat.value)}).value
+
     def _surfaces_node(self, overrides=None) -> Node:
         return self._run("surfaces", deps={"catalogue": self._catalogue_node(overrides)})
 

@@ -35,7 +35,8 @@ N = 20000
 #: Every factor off (GSD 1, spreads 0); a test switches on what it checks.
 OFF = dict(vd_gsd={sp: 1.0 for sp in U.DEFAULT_VD_GSD}, air_rel_sd=0.0, precip_conc_rel_sd=0.0,
            gauge_catch_rel_sd=0.0, depth_rel_sd=0.0, censored_rel_sd=0.0, vd_fill_rel_sd=0.0,
-           pwm_fill_rel_sd=0.0, lab_bias_precip_rel_sd=0.0, lab_bias_air_rel_sd=0.0)
+           pwm_fill_rel_sd=0.0, lab_bias_precip_rel_sd=0.0, lab_bias_air_rel_sd=0.0, vd_site_gsd=1.0,
+           lab_bias_filter_pack=False, bulk_factor_rel_sd=0.0)
 
 
 @pytest.fixture(scope="module")

@@ -106,6 +106,9 @@ vd_fill_rel_sd = 0.0
 pwm_fill_rel_sd = 0.0
 lab_bias_precip_rel_sd = 0.0
 lab_bias_air_rel_sd = 0.0
+vd_site_gsd = 1.0
+lab_bias_filter_pack = false
+bulk_factor_rel_sd = 0.0
 {uncertainty}
 
 [uncertainty.vd_gsd]

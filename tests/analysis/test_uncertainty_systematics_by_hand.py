@@ -51,6 +51,9 @@ depth_rel_sd = 0.0
 censored_rel_sd = 0.0
 vd_fill_rel_sd = 0.0
 pwm_fill_rel_sd = 0.0
+vd_site_gsd = 1.0
+lab_bias_filter_pack = false
+bulk_factor_rel_sd = 0.0
 """
 VD_OFF = {"SO2": 1.0, "pSO4": 1.0, "HNO3": 1.0, "pNO3": 1.0, "pNH4": 1.0, "NH3": 1.0,
           "NO2": 1.0}

@@ -97,6 +97,18 @@ note = "moved 300 m"
      "latitude"),
     ('\n[[site.change]]\ndate = 2011-01-01\nwhat = "collector"\nfrom = "wet_only"\n'
      'to = "bulk"\n', "the last collector change does not end at the site's collector", "to"),
+    # laboratory ids (docs/data_formats.md, "A long record"): text, on laboratory changes
+    # only, following on, ending at the site's laboratory
+    ('\n[[site.change]]\ndate = 2014-04-01\nwhat = "laboratory"\nto = 3\n',
+     "laboratory id is not text", "to"),
+    ('\n[[site.change]]\ndate = 2014-04-01\nwhat = "gauge"\nair_to = "lab-a"\n',
+     "'air_to' on a gauge change", "air_to"),
+    ('\n[[site.change]]\ndate = 2010-01-01\nwhat = "laboratory"\nto = "lab-a"\n'
+     '\n[[site.change]]\ndate = 2014-04-01\nwhat = "laboratory"\nfrom = "lab-c"\n',
+     "laboratory changes do not follow on", "from"),
+    ('laboratory = "lab-b"\n[[site.change]]\ndate = 2014-04-01\nwhat = "laboratory"\n'
+     'to = "lab-a"\n', "the last laboratory change does not end at the site's laboratory",
+     "to"),
 ])
 def test_a_wrong_history_is_one_located_message(tmp_path, changes, problem, key):
     msg, lines = _error(tmp_path, changes)
@@ -105,6 +117,28 @@ def test_a_wrong_history_is_one_located_message(tmp_path, changes, problem, key)
     line = lines[_line(msg) - 1]
     assert line.startswith(f"{key} =") or line.startswith("[[site.change]]"), (msg, line)
     assert _line(msg) > 13                          # inside the change tables, not the site
+
+
+def test_laboratory_ids_of_each_laboratory_period(tmp_path):
+    """The laboratory of each laboratory period: the first change's ``from``, then each
+    change's ``to`` (or the next one's ``from``), the last the site's ``laboratory``;
+    None where nothing names it; the air samples' apart (``air_from``/``air_to``,
+    ``air_laboratory``).  A site without changes: its keys."""
+    from workbench.io.sitechanges import laboratory_ids
+    cat = read_sites(_catalogue(tmp_path, 'laboratory = "lab-c"\nair_laboratory = "air-b"\n'
+                                '[[site.change]]\ndate = 2010-01-01\nwhat = "laboratory"\n'
+                                'from = "lab-a"\nair_to = "air-b"\n'
+                                '[[site.change]]\ndate = 2014-04-01\nwhat = "laboratory"\n'
+                                'from = "lab-b"\nto = "lab-c"\n'))
+    site = cat["alpha"]
+    assert (site.laboratory, site.air_laboratory) == ("lab-c", "air-b")
+    assert laboratory_ids(site) == ["lab-a", "lab-b", "lab-c"]
+    assert laboratory_ids(site, air=True) == [None, "air-b", "air-b"]
+    from workbench.io.sites import check_site, site_dict
+    again = check_site(site_dict(site), lambda *a, **k: InputError("x"), [], "x")
+    assert again == site                          # the scenario's re-check keeps them
+    plain = read_sites(_catalogue(tmp_path, ""))["alpha"]
+    assert laboratory_ids(plain) == [None] and laboratory_ids(plain, air=True) == [None]
 
 
 def test_a_long_move_is_a_hint(tmp_path):

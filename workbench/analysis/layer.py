@@ -88,6 +88,14 @@ class SiteLayer:
     #: in date order: they split the record into gauge and laboratory periods
     gauge_changes: np.ndarray = field(default_factory=lambda: np.array([], "datetime64[ns]"))
     lab_changes: np.ndarray = field(default_factory=lambda: np.array([], "datetime64[ns]"))
+    #: the laboratory id of each laboratory period (len(lab_changes) + 1; None: not
+    #: named, a laboratory of the site's own) of the precipitation and of the air samples
+    lab_ids: list = field(default_factory=lambda: [None])
+    air_lab_ids: list = field(default_factory=lambda: [None])
+    #: wet component index -> (P,) share of the component's deposition that its bulk
+    #: samples carry after ``bulk_wet_factor`` (``bulk_correction = "scale_wet"``) [1];
+    #: empty otherwise
+    bulk_part: dict = field(default_factory=dict)
 
 
 @dataclass
@@ -323,11 +331,57 @@ def linear_layer(result, study, which: str = "budget", overrides=None) -> Linear
     ions = list(WET_IONS) + ([tracer] if nss and tracer not in WET_IONS else [])
     wet_pieces, fills, pwms = _wet_layers(result.screened, wet, periods, wet_opt,
                                           study.inputs.met, sites, ions)
+    from ..io.sitechanges import laboratory_ids
     by_id = {c.id: c for c in catalogue}
-    layers = [SiteLayer(dry[k], wet_pieces[k], fills[k], pwms[k],
-                        change_instants(by_id.get(s), "gauge"),
-                        change_instants(by_id.get(s), "laboratory"))
-              for k, s in enumerate(sites)]
     wet_component = {j: ("nssSO4" if (sp == "SO4" and nss) else sp)
                      for j, (_, path, sp) in enumerate(COMPONENTS) if path == "wet"}
+    bulk = bulk_parts(result, study, wet, catalogue, periods, sites, overrides)
+    layers = [SiteLayer(dry[k], wet_pieces[k], fills[k], pwms[k],
+                        change_instants(by_id.get(s), "gauge"),
+                        change_instants(by_id.get(s), "laboratory"),
+                        laboratory_ids(by_id.get(s)), laboratory_ids(by_id.get(s), air=True),
+                        bulk[k])
+              for k, s in enumerate(sites)]
     return LinearLayer(ds, layers, period_years(periods), wet_component, tracer)
+
+
+def bulk_parts(result, study, wet, catalogue, periods, sites, overrides=None) -> list:
+    """Per site: wet component index -> (P,) share of the component's deposition that
+    its bulk samples carry after the scaling of ``bulk_correction = "scale_wet"`` [1]
+    (empty dicts under another correction or without precipitation).
+
+    The budget (:func:`workbench.budget.assemble`) writes D = D0 (1 - s (1 - f)), s the
+    bulk samples' share of D0 (1 in a period wholly under bulk), f ``bulk_wet_factor``;
+    the bulk part of D is b = s f / (1 - s (1 - f)), so a drawn factor f' = f u gives
+    D' = D (1 + b (u - 1)).  The shares are those of the budget, from the same functions.
+    """
+    bud = result.options["budget"]
+    out = [dict() for _ in sites]
+    if bud.bulk_correction != "scale_wet" or wet is None:
+        return out
+    from ..budget import _collector_split_on, _wet_bulk_share
+    from ..surfacehistory import collector_shares
+    labels = periods["label"].values
+    n_p = len(labels)
+    share, _ = collector_shares(catalogue, sites, periods)
+    split = _collector_split_on(study.collector_split(result.options["wet"], periods, overrides),
+                                sites, n_p)
+    if split is not None:
+        share = np.where(np.isfinite(split["hour_share"]), split["hour_share"], share)
+    if not (share > 0).any():
+        return out
+    w = wet.reindex(site=sites, period=labels)
+    whole = share >= 1.0
+    straddle = (share > 0) & ~whole
+    f = float(bud.bulk_wet_factor)
+    for j, (_, path, sp) in enumerate(COMPONENTS):
+        if path != "wet":
+            continue
+        dep_share = _wet_bulk_share(split, w, sp, bud)[0] if split is not None else share
+        s = np.where(whole, 1.0, np.where(straddle, dep_share, 0.0))
+        den = 1.0 - s * (1.0 - f)
+        b = np.where(den > 0, s * f / np.where(den > 0, den, 1.0), 0.0)
+        for k in range(len(sites)):
+            if b[k].any():
+                out[k][j] = b[k]
+    return out

@@ -8,8 +8,10 @@ by the calendar year; the random errors of a sample (depth, analyses, gap-filled
 by the sample's identity (sampler id, start: :func:`.layer.sample_identity`) and what
 they are of; a filled PWM's error by its period's bounds; a later gauge period's catch
 by the site and the instant of its change, a laboratory's calibration bias by the site,
-precipitation or air, the ion or species and its period's first instant, a land-use
-class's part of the Vd factors by the seed and the class.  So a site, a site-year and a
+precipitation or air, the ion or species and its period's first instant (a laboratory
+the catalogue names: by the seed, its id and the analysed ion, so every site naming it
+shares the draw), a land-use class's part of the Vd factors by the seed and the class,
+a site's own Vd factor and its bulk-collector factor by the site.  So a site, a site-year and a
 sample draw the same numbers in every run that holds them (docs/methods_uncertainty.md).
 """
 from __future__ import annotations
@@ -52,6 +54,12 @@ class SiteNoise:
     vd_class: dict = field(default_factory=dict)
     lab_precip: dict = field(default_factory=dict)
     lab_air: dict = field(default_factory=dict)
+    #: (D, Y) the site's bulk-collector factor over ``bulk_wet_factor`` [1] (None: not
+    #: drawn: no bulk part, or ``bulk_factor_rel_sd`` 0)
+    bulk: np.ndarray | None = None
+    #: (D, Y, 1) the site's own Vd factor [1], already in ``vd`` and ``vd_class`` (None:
+    #: ``vd_site_gsd`` 1)
+    vd_site: np.ndarray | None = None
 
 
 def _normal_factor(rng, sd, shape):
@@ -88,6 +96,17 @@ YEAR_STREAM, SAMPLE_STREAM, RECORD_STREAM = 2, 3, 4
 #: calibration bias (with precip/air, the ion or species and the laboratory period's
 #: first instant), a land-use class's own Vd part (with the class).
 GAUGE_PERIOD, LAB_BIAS, VD_CLASS = 5, 6, 7
+#: Tags of the factors added after those: a named laboratory's bias (after the run's
+#: key: shared by every site naming the laboratory), a site's own Vd factor, a site's
+#: bulk-collector factor.
+NAMED_LAB, VD_SITE, BULK_FACTOR = 8, 9, 10
+#: The ion each laboratory analysis measures: a precipitation ion and an air species
+#: analysed as the same ion share a named laboratory's calibration draw.
+ANALYTE = {"SO4": "sulfate", "NO3": "nitrate", "NH4": "ammonium",
+           "pSO4": "sulfate", "pNO3": "nitrate", "pNH4": "ammonium"}
+#: A filter pack's gas filter analysed as the ion of its particle filter
+#: (``lab_bias_filter_pack``): the gas takes the particle's calibration draw.
+FILTER_PACK = {"SO2": "pSO4", "HNO3": "pNO3", "NH3": "pNH4"}
 
 
 def _shared_systematic(opt, seed_key, n_draws, n_years):
@@ -178,6 +197,48 @@ def sample_lab_bias(bias, instants, start, end, year0, n_years, skip=None):
     if len(lab) and (lab == lab[0]).all() and (yi == yi[0]).all():
         return bias[:, yi[0], lab[0], None]            # one laboratory-year: (D, 1)
     return bias[:, yi, lab]
+
+
+def _lab_bias(opt, key, run_key, kind, name, analyte, instants, ids, sd, d, n_years, year0):
+    """The calibration bias of each laboratory period of a site (D, Y, L) [1]: a period
+    whose laboratory the catalogue names (`ids`, :func:`workbench.io.sitechanges.
+    laboratory_ids`) draws from the stream of that laboratory and `analyte`, named by
+    the run's key, so every site (and the precipitation and air of one site) naming
+    the laboratory shares it; the others from the site's own stream of `kind` and
+    `name` and the period's first instant, as before."""
+    out = _per_period(opt, key, [LAB_BIAS] + _stream_key((kind, name)), instants, sd, d,
+                      n_years, year0)
+    ids = list(ids or [None])
+    if not sd > 0 or not any(i is not None for i in ids):
+        return out
+    out = np.array(out)
+    shared = getattr(opt, "systematic_errors", "shared") == "shared"
+    for g, lab in enumerate(ids[:out.shape[2]]):
+        if lab is None:
+            continue
+        tags = _stream_key((lab, analyte))
+        if shared:
+            rng = np.random.default_rng(run_key + [RECORD_STREAM, LAB_BIAS, NAMED_LAB] + tags)
+            out[:, :, g] = _normal_factor(rng, sd, (d,))[:, None]
+        else:
+            for y in range(n_years):
+                rng = np.random.default_rng(run_key + [YEAR_STREAM, int(year0) + y, LAB_BIAS,
+                                                       NAMED_LAB] + tags)
+                out[:, y, g] = _normal_factor(rng, sd, (d,))
+    return out
+
+
+def _site_factor(opt, key, tag, d, n_years, year0, draw):
+    """A systematic factor of the site's own (D, Y): `draw(rng)` (D,) from one stream
+    of the site and `tag`, shared by the years, or from one per calendar year
+    (``"each_year"``)."""
+    if getattr(opt, "systematic_errors", "shared") == "shared":
+        one = draw(np.random.default_rng(key + [RECORD_STREAM, tag]))
+        return np.broadcast_to(one[:, None], (d, n_years))
+    out = np.empty((d, n_years))
+    for y in range(n_years):
+        out[:, y] = draw(np.random.default_rng(key + [YEAR_STREAM, int(year0) + y, tag]))
+    return out
 
 
 def _class_parts(seed_key, key, opt, classes, d, n_years, year0, k):
@@ -296,6 +357,14 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
             f = np.exp(ln_gsd * (np.sqrt(rho) * z_shared[:, :one] + np.sqrt(1 - rho) * (
                 np.sqrt(1 - kappa) * z_own[:, :one] + np.sqrt(kappa) * z_c[:, :one])))
             vd_class[c] = np.broadcast_to(f, (d, n_years, k))
+    # the site's own Vd bias (its siting), on every species, receptor and class
+    vd_site = None
+    gsd_site = float(getattr(opt, "vd_site_gsd", 1.0))
+    if gsd_site > 1.0:
+        vd_site = np.exp(np.log(gsd_site) * _site_factor(
+            opt, key, VD_SITE, d, n_years, year0, lambda r: r.standard_normal(d)))[:, :, None]
+        vd = vd * vd_site
+        vd_class = {c: f * vd_site for c, f in vd_class.items()}
     # a gauge period after each declared gauge change draws its own catch
     g_changes = getattr(layer_site, "gauge_changes", np.array([], "datetime64[ns]"))
     if len(g_changes):
@@ -309,6 +378,10 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
     idents = wet.ident if wet is not None else []
     depth = keyed_normal_factor(key, "depth", idents, opt.depth_rel_sd, d)
     lab_changes = getattr(layer_site, "lab_changes", np.array([], "datetime64[ns]"))
+    run_key = _stream_key((seed_key[0], ""))
+    lab_ids = getattr(layer_site, "lab_ids", [None])
+    air_ids = getattr(layer_site, "air_lab_ids", [None])
+    pack = bool(getattr(opt, "lab_bias_filter_pack", False))
     lab_precip, lab_air = {}, {}
     sd_lab = float(getattr(opt, "lab_bias_precip_rel_sd", 0.0))
     if wet is not None:
@@ -320,8 +393,9 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
             if sd_lab > 0 and wet.start is not None:
                 # the laboratory's calibration bias, on the values it measured (not
                 # on half a detection limit put in for a value below it)
-                lab_precip[ion] = _per_period(opt, key, [LAB_BIAS] + _stream_key(("precip", ion)),
-                                              lab_changes, sd_lab, d, n_years, year0)
+                lab_precip[ion] = _lab_bias(opt, key, run_key, "precip", ion,
+                                            ANALYTE.get(ion, ion), lab_changes, lab_ids,
+                                            sd_lab, d, n_years, year0)
                 pconc[ion] *= sample_lab_bias(lab_precip[ion], lab_changes, wet.start,
                                               wet.end, year0, n_years, cens)
     air, vd_fill = {}, {}
@@ -341,8 +415,11 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
             cens = np.asarray(rows.censored, bool)
             for m in sorted(set(member)):
                 if m not in lab_air:
-                    lab_air[m] = _per_period(opt, key, [LAB_BIAS] + _stream_key(("air", m)),
-                                             lab_changes, sd_lab, d, n_years, year0)
+                    # a filter pack's gas filter: its particle filter's draw
+                    as_m = FILTER_PACK.get(m, m) if pack else m
+                    lab_air[m] = _lab_bias(opt, key, run_key, "air", as_m,
+                                           ANALYTE.get(as_m, as_m), lab_changes, air_ids,
+                                           sd_lab, d, n_years, year0)
                 sel = np.flatnonzero(member == m)
                 b = sample_lab_bias(lab_air[m], lab_changes, rows.start[sel], rows.end[sel],
                                     year0, n_years, cens[sel])
@@ -362,5 +439,11 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
     for ion in sorted(layer_site.pwm):
         pwm_fill[ion] = keyed_normal_factor(key, f"pwm_fill:{ion}", bounds,
                                             opt.pwm_fill_rel_sd, d)
+    # the bulk collector's factor, where the budget scaled a bulk part (scale_wet)
+    bulk = None
+    sd_bulk = float(getattr(opt, "bulk_factor_rel_sd", 0.0))
+    if sd_bulk > 0 and getattr(layer_site, "bulk_part", None):
+        bulk = _site_factor(opt, key, BULK_FACTOR, d, n_years, year0,
+                            lambda r: _normal_factor(r, sd_bulk, (d,)))
     return SiteNoise(vd, gauge, depth, pconc, air, vd_fill, pwm_fill, gauge_periods, vd_class,
-                     lab_precip, lab_air)
+                     lab_precip, lab_air, bulk, vd_site)

@@ -169,6 +169,9 @@ def draws_in_force(options) -> str:
             f"lab_bias_precip_rel_sd = {options.lab_bias_precip_rel_sd:g}, "
             f"lab_bias_air_rel_sd = {options.lab_bias_air_rel_sd:g}, "
             f"vd_class_fraction = {options.vd_class_fraction:g}, "
+            f"vd_site_gsd = {getattr(options, 'vd_site_gsd', 1.0):g}, "
+            f"lab_bias_filter_pack = {str(getattr(options, 'lab_bias_filter_pack', False)).lower()}, "
+            f"bulk_factor_rel_sd = {getattr(options, 'bulk_factor_rel_sd', 0.0):g}, "
             f"gauge_catch_rel_sd = {options.gauge_catch_rel_sd:g} per gauge period "
             f"({options.draws} draws, seed {options.seed}).")
 

@@ -11,7 +11,8 @@ draw is a few matrix products per site and never re-runs the engine:
   with :math:`A` the sampling period's contribution, :math:`F` the Vd model factor
   (log-normal, median 1, systematic: shared by every site and year, correlated among
   species through the shared micrometeorology, with a part of its own per land-use
-  class of the receptor, ``vd_class_fraction``), :math:`\\delta` the analytical error
+  class of the receptor, ``vd_class_fraction``, and one of the site's own,
+  ``vd_site_gsd``), :math:`\\delta` the analytical error
   of the sample (random per sample) times its laboratory's calibration bias
   (systematic per laboratory period and species), :math:`\\phi` the share of its deposition in the
   period that its hours without a modelled Vd carry (gap-filled, or missing) and
@@ -26,7 +27,9 @@ draw is a few matrix products per site and never re-runs the engine:
   by its years; a piece under two gauges by the share of its hours under each, in the
   precipitation and the PWM's weights alike), :math:`\\varepsilon` the depth error
   and :math:`\\delta` the analytical error (random per sample) times the
-  laboratory's calibration bias (systematic: one per ion and laboratory period); a PWM
+  laboratory's calibration bias (systematic: one per ion and laboratory period, shared
+  by the sites naming one laboratory); under ``bulk_correction = "scale_wet"`` the
+  bulk samples' part of D takes a drawn ``bulk_wet_factor``; a PWM
   filled from the multi-year seasonal means gets its own error instead, and the
   non-sea-salt sulfate is recomputed from the drawn SO4 and tracer PWMs.
 
@@ -124,12 +127,14 @@ class UncertaintyOptions:
         Relative standard deviation of a precipitation laboratory's calibration bias
         [1], systematic: one draw per ion and laboratory period of a site (split at its
         ``what = "laboratory"`` changes), shared by every sample that laboratory
-        analysed; 0.03 (from memory of interlaboratory comparisons of precipitation
+        analysed (a laboratory named in the site catalogue: one draw per ion for every
+        site naming it, docs/methods_uncertainty.md); 0.03 (from memory of interlaboratory comparisons of precipitation
         chemistry: most laboratories within a few percent of the reference values for
         the major ions).
     lab_bias_air_rel_sd : float
         The same for the air samples' laboratory, a laboratory of its own (drawn apart
-        from the precipitation laboratory's); 0.05 (from memory: filter and denuder
+        from the precipitation laboratory's, unless the catalogue names one laboratory
+        for both: then one draw per analysed ion, e.g. sulfate); 0.05 (from memory: filter and denuder
         extracts add their extraction and blanks to the analysis).
     vd_class_fraction : float
         Share of each species' own log-variance of the Vd factor (the part not shared
@@ -138,6 +143,28 @@ class UncertaintyOptions:
         site and receptor of that class.  The log-variance of one receptor's factor
         stays ln^2 GSD; only the correlation between classes falls.  0.5 (our choice, no
         published value; 0 is one bias for every surface, as before).
+    vd_site_gsd : float
+        Geometric standard deviation of a site's own Vd factor [1] (its siting and
+        representativeness: the mast's fetch, the sampler's place in a heterogeneous
+        surface), log-normal with median 1, beside the model factor and its class part:
+        one draw per site (by its id), shared by its species, receptors and years
+        (``"each_year"``: per site and year).  It adds to the log-variance of each
+        receptor's factor.  1.2 (our choice, from memory of the tens of percent by
+        which fluxes measured a few hundred metres apart over one surface differ); 1
+        switches it off.
+    lab_bias_filter_pack : bool
+        The gas and particle filters of a filter pack analysed as the same ion share
+        the air laboratory's calibration draw: SO2 (as sulfate) with pSO4, HNO3 (as
+        nitrate) with pNO3, NH3 (as ammonium) with pNH4.  True (common practice: the
+        filter stages of one pack are extracted and run in the same analytical batch,
+        against one calibration); False draws each species apart, as before.
+    bulk_factor_rel_sd : float
+        Relative standard deviation of ``[budget] bulk_wet_factor`` [1] under
+        ``bulk_correction = "scale_wet"``, systematic: one draw per site (its funnel's
+        exposure to dry deposition), shared by its ions and years (``"each_year"``:
+        per site and year), acting on the part of the wet deposition its bulk samples
+        carry.  0.1 (from memory: wet-only / bulk ratios of rural sites spread over
+        roughly 0.7-0.9 around the typical 0.8); 0 switches it off.
     """
 
     draws: int = 0
@@ -155,6 +182,9 @@ class UncertaintyOptions:
     lab_bias_precip_rel_sd: float = 0.03
     lab_bias_air_rel_sd: float = 0.05
     vd_class_fraction: float = 0.5
+    vd_site_gsd: float = 1.2
+    lab_bias_filter_pack: bool = True
+    bulk_factor_rel_sd: float = 0.1
 
     def __post_init__(self):
         if self.systematic_errors not in SYSTEMATIC_ERRORS:
@@ -167,7 +197,7 @@ class UncertaintyOptions:
             object.__setattr__(self, name, int(v))           # 1000.0 from a file -> 1000
         for name in ("air_rel_sd", "precip_conc_rel_sd", "gauge_catch_rel_sd", "depth_rel_sd",
                      "censored_rel_sd", "vd_fill_rel_sd", "pwm_fill_rel_sd",
-                     "lab_bias_precip_rel_sd", "lab_bias_air_rel_sd"):
+                     "lab_bias_precip_rel_sd", "lab_bias_air_rel_sd", "bulk_factor_rel_sd"):
             v = getattr(self, name)
             if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 <= v < math.inf:
                 raise ValueError(f"UncertaintyOptions.{name} = {v!r} must be a finite number "
@@ -176,6 +206,13 @@ class UncertaintyOptions:
             v = getattr(self, name)
             if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 <= v <= 1:
                 raise ValueError(f"UncertaintyOptions.{name} = {v!r} must lie in [0, 1]")
+        v = self.vd_site_gsd
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not 1 <= v < math.inf:
+            raise ValueError(f"UncertaintyOptions.vd_site_gsd = {v!r} must be a finite number "
+                             ">= 1 (1 switches the factor off)")
+        if not isinstance(self.lab_bias_filter_pack, bool):
+            raise ValueError(f"UncertaintyOptions.lab_bias_filter_pack = "
+                             f"{self.lab_bias_filter_pack!r} must be true or false")
         for sp, g in self.vd_gsd.items():
             if sp not in DRY_SPECIES:
                 raise ValueError(f"UncertaintyOptions.vd_gsd: unknown species {sp!r}; "
@@ -356,7 +393,12 @@ def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int)
                         noise.pconc, noise.pwm_fill, n_p, wanted, layer.tracer, piece)
         for j, ion in layer.wet_component.items():
             if ion in wr:
-                ratio[..., j] = wr[ion][:, None, :]
+                r = wr[ion]
+                b = getattr(ls, "bulk_part", {}).get(j)
+                if noise.bulk is not None and b is not None:
+                    # the bulk samples' part takes the drawn bulk_wet_factor
+                    r = r * (1.0 + b[None, :] * (noise.bulk[:, yi] - 1.0))
+                ratio[..., j] = r[:, None, :]
     return point[None] * ratio
 
 

@@ -32,7 +32,13 @@ from ..landuse import LAND_USE
 CHANGE_KINDS = ("land_use", "collector", "location", "sampler", "gauge", "laboratory",
                 "units", "detection_limit", "other")
 #: Keys of a ``[[site.change]]`` table.
-CHANGE_KEYS = ("date", "what", "from", "to", "latitude", "longitude", "note")
+CHANGE_KEYS = ("date", "what", "from", "to", "air_from", "air_to", "latitude", "longitude",
+               "note")
+#: A ``laboratory`` change may name the laboratories (ids of our users' own choosing):
+#: ``from``/``to`` of the precipitation chemistry, ``air_from``/``air_to`` of the air
+#: samples' extracts.  Sites naming the same laboratory share its calibration bias in
+#: the Monte Carlo (docs/methods_uncertainty.md, "Laboratories shared by sites").
+LAB_KEYS = ("from", "to", "air_from", "air_to")
 #: Changes that alter what the engine computes (it follows them hour by hour or period by
 #: period: workbench/surfacehistory.py).
 ENGINE_KINDS = ("land_use", "collector")
@@ -48,17 +54,22 @@ class SiteChange:
 
     date: _dt.date
     what: str
-    before: str | None = None       #: ``from`` (land_use, collector)
+    before: str | None = None       #: ``from`` (land_use, collector; laboratory id)
     after: str | None = None        #: ``to``
     latitude: float | None = None   #: the new place (location) [degree north]
     longitude: float | None = None  #: [degree east]
     note: str = ""
+    #: the air samples' laboratory before and after (``air_from``/``air_to``, laboratory)
+    air_before: str | None = None
+    air_after: str | None = None
 
     def describe(self) -> str:
         """``2014-04-01 land_use conifer_forest -> grass (forest clear-felled)``."""
         text = f"{self.date.isoformat()} {self.what}"
         if self.before or self.after:
             text += f" {self.before} -> {self.after}"
+        if self.air_before or self.air_after:
+            text += f" air {self.air_before} -> {self.air_after}"
         if self.latitude is not None:
             text += f" to {self.latitude:g} N {self.longitude:g} E"
         return text + (f" ({self.note})" if self.note else "")
@@ -66,8 +77,9 @@ class SiteChange:
     def as_dict(self) -> dict:
         """The ``[[site.change]]`` table of this change."""
         out = {"date": self.date.isoformat(), "what": self.what}
-        for key, v in (("from", self.before), ("to", self.after), ("latitude", self.latitude),
-                       ("longitude", self.longitude)):
+        for key, v in (("from", self.before), ("to", self.after),
+                       ("air_from", self.air_before), ("air_to", self.air_after),
+                       ("latitude", self.latitude), ("longitude", self.longitude)):
             if v is not None:
                 out[key] = v
         if self.note:
@@ -172,10 +184,21 @@ def check_changes(t: dict, err, notes: list, label: str) -> tuple:
             if c["from"] == c["to"]:
                 raise err(f"a {what} change to the same class", j, "to", c["to"],
                           f"a class other than from = {c['from']!r}")
+        elif what == "laboratory":
+            for key in LAB_KEYS:
+                if key in c and (not isinstance(c[key], str) or not c[key].strip()):
+                    raise err("laboratory id is not text", j, key, c[key],
+                              "the laboratory's id in quotes, e.g. \"lab-a\" (the same id "
+                              "at every site it analyses for)")
         elif "from" in c or "to" in c:
             raise err(f"'from'/'to' on a {what} change", j, "from" if "from" in c else "to",
                       c.get("from", c.get("to")),
-                      "from and to only on land_use and collector changes (words go in note)")
+                      "from and to only on land_use, collector and laboratory changes "
+                      "(words go in note)")
+        if what != "laboratory" and ("air_from" in c or "air_to" in c):
+            key = "air_from" if "air_from" in c else "air_to"
+            raise err(f"'{key}' on a {what} change", j, key, c[key],
+                      "air_from and air_to only on laboratory changes")
         lat, lon = c.get("latitude"), c.get("longitude")
         if what == "location":
             for key, v, lim in (("latitude", lat, 90), ("longitude", lon, 360)):
@@ -193,9 +216,12 @@ def check_changes(t: dict, err, notes: list, label: str) -> tuple:
         note = c.get("note", "")
         if not isinstance(note, str):
             raise err("change note is not text", j, "note", note, "words in quotes")
-        out.append((d, j, SiteChange(d, what, c.get("from"), c.get("to"),
+        lab = {k: (c[k].strip() if isinstance(c.get(k), str) else None) for k in LAB_KEYS}
+        out.append((d, j, SiteChange(d, what, lab["from"] if what == "laboratory" else c.get("from"),
+                                     lab["to"] if what == "laboratory" else c.get("to"),
                                      None if lat is None else float(lat),
-                                     None if lon is None else float(lon), note.strip())))
+                                     None if lon is None else float(lon), note.strip(),
+                                     lab["air_from"], lab["air_to"])))
     out.sort(key=lambda x: (x[0], x[1]))
     seen = {}
     for d, j, ch in out:
@@ -217,6 +243,7 @@ def check_changes(t: dict, err, notes: list, label: str) -> tuple:
             raise err(f"the last {what} change does not end at the site's {what}", j, "to",
                       last.after, f"{own[what]!r}, the site's {what} (the catalogue describes "
                       "the site as it is after its last change)")
+    _check_laboratory_chain(t, out, err)
     prev = (t.get("latitude"), t.get("longitude"))
     moves = [ch for _, _, ch in out if ch.what == "location"]
     if moves and isinstance(prev[0], (int, float)) and isinstance(prev[1], (int, float)):
@@ -233,6 +260,49 @@ def check_changes(t: dict, err, notes: list, label: str) -> tuple:
                 notes.append(f"{label}: moved {km:.1f} km on {b.date.isoformat()}: a site more "
                              f"than {MOVE_HINT_KM:g} km away is another site (give it its own id)")
     return tuple(ch for _, _, ch in out)
+
+
+def _check_laboratory_chain(t, out, err):
+    """The laboratory ids named on a site's laboratory changes follow on (one change's
+    ``to`` is the next one's ``from`` where both are given) and the last ``to`` is the
+    site's ``laboratory`` (``air_to``: ``air_laboratory``) where both are given."""
+    chain = [(j, ch) for _, j, ch in out if ch.what == "laboratory"]
+    for pre, now_key, key_to in (("", "laboratory", "to"), ("air_", "air_laboratory", "air_to")):
+        get = (lambda ch: (ch.before, ch.after)) if not pre else (
+            lambda ch: (ch.air_before, ch.air_after))
+        for (j0, a), (j1, b) in zip(chain, chain[1:]):
+            if get(a)[1] and get(b)[0] and get(a)[1] != get(b)[0]:
+                raise err("laboratory changes do not follow on", j1, pre + "from", get(b)[0],
+                          f"{get(a)[1]!r}, the '{key_to}' of the laboratory change of "
+                          f"{a.date.isoformat()}")
+        now = t.get(now_key)
+        if chain and now is not None and get(chain[-1][1])[1] not in (None, now):
+            j, last = chain[-1]
+            raise err("the last laboratory change does not end at the site's laboratory", j,
+                      key_to, get(last)[1], f"{now!r}, the site's {now_key} (the catalogue "
+                      "describes the site as it is after its last change)")
+
+
+def laboratory_ids(site, air: bool = False) -> list:
+    """The laboratory id of each laboratory period of `site` (split at its laboratory
+    changes, in date order; None where the catalogue names none): the first change's
+    ``from`` (``air_from``), then each change's ``to`` (``air_to``), the last period
+    the site's ``laboratory`` (``air_laboratory``) when its change names none."""
+    chain = [ch for ch in getattr(site, "changes", ()) or () if ch.what == "laboratory"]
+    now = getattr(site, "air_laboratory" if air else "laboratory", None)
+    pick = (lambda ch: (ch.air_before, ch.air_after)) if air else (
+        lambda ch: (ch.before, ch.after))
+    if not chain:
+        return [now]
+    ids = [pick(chain[0])[0]]
+    for k, ch in enumerate(chain):
+        after = pick(ch)[1]
+        if after is None and k + 1 < len(chain):
+            after = pick(chain[k + 1])[0]
+        ids.append(after)
+    if ids[-1] is None:
+        ids[-1] = now
+    return ids
 
 
 def changes_in(site, start, end) -> tuple:

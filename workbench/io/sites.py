@@ -39,6 +39,10 @@ SITE_KEYS = {
     "displacement_height_m": ((int, float), False, "override of d [m]"),
     "met_land_use": (str, False, "land use under the wind mast if not the site's"),
     "collector": (str, False, "'wet_only' (default) or 'bulk'"),
+    "laboratory": (str, False, "id of the laboratory analysing the precipitation samples "
+                   "(sites naming one id share its calibration bias in the Monte Carlo)"),
+    "air_laboratory": (str, False, "id of the laboratory analysing the air samples "
+                       "(the same id as a laboratory: one calibration bias per analyte)"),
     "receptors": (list, False, "further land-use classes for dry deposition"),
     "critical_loads": (dict, False, "table of critical loads [eq/ha/yr]"),
     "nh3_emission_potential": (dict, False, "table of stomatal NH3 emission potentials "
@@ -94,6 +98,10 @@ class Site:
     #: the declared history (``[[site.change]]``), :class:`.sitechanges.SiteChange` in
     #: date order
     changes: tuple = ()
+    #: ids of the laboratories analysing the precipitation and the air samples (after
+    #: the site's last laboratory change); None: not named (a laboratory of its own)
+    laboratory: str | None = None
+    air_laboratory: str | None = None
 
     def critical_loads_for(self, receptor) -> dict:
         """Critical loads of a receptor [eq ha-1 yr-1]: the site's, with the receptor's
@@ -487,7 +495,9 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None,
         coarse_fraction={k2: float(v) for k2, v in coarse.items()},
         receptor_critical_loads=per_receptor,
         nh3_emission_potential=gamma, ustar_transfer={k2: str(v) for k2, v in transfer.items()},
-        changes=changes)
+        changes=changes,
+        laboratory=t["laboratory"].strip() if t.get("laboratory") else None,
+        air_laboratory=t["air_laboratory"].strip() if t.get("air_laboratory") else None)
 
 
 def _nh3_emission_potential(t, err, notes, label, receptors) -> dict:
@@ -642,7 +652,7 @@ def site_dict(site: Site) -> dict:
     if site.coarse_fraction:
         out["coarse_fraction"] = dict(site.coarse_fraction)
     for key in ("roughness_length_m", "displacement_height_m", "met_land_use",
-                "coast_distance_km"):
+                "coast_distance_km", "laboratory", "air_laboratory"):
         if getattr(site, key) is not None:
             out[key] = getattr(site, key)
     if site.lai is not None:
