@@ -31,7 +31,8 @@ from .budgetstatus import (as_flag, bracket_outputs, bulk_caught_brackets, dry_s
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
 from .surfacehistory import collector_shares, describe, period_notes
-from .units import deposition_in, element_deposition_in
+from .species import element_molar_mass
+from .units import UG_PER_KG, deposition_in, element_deposition_in
 
 #: (element, pathway, species, source variable) of every budget component, in order.
 COMPONENTS = (
@@ -791,7 +792,7 @@ def derived(ds: xr.Dataset) -> xr.Dataset:
             ).astype(object), {"long_name": f"status of dry_N_{how}_kg_ha (docs/budget.md)"})
         if "air_concentration" in ds:
             c = ds["air_concentration"]
-            n_mass = 14.007e-3 * 1e9  # mol N -> ug N
+            n_mass = element_molar_mass("N") * UG_PER_KG   # mol N -> ug N [ug mol-1]
             for name, (gas, prt) in (("total_nitrate", PAIRS["nitrate"]),
                                      ("total_ammonia_ammonium", PAIRS["ammonium"])):
                 if gas in c["air_species"].values and prt in c["air_species"].values:
