@@ -91,7 +91,17 @@ def _weighted(table, screened, weight_all, used, flat, n_flat, species):
 
 
 def _climatology(screened, opt, met, site_idx, n_site, species, gauge_prof):
-    """Multi-year PWM per site and season (and over the whole record) [mol m-3]."""
+    """Sums of the multi-year PWM per site and season, and of each sample's part of them.
+
+    Returns
+    -------
+    num, den : dict
+        species -> (site, season) sums :math:`\\sum w C` [mol m-3 mm] and
+        :math:`\\sum w` [mm] over the used samples of the whole record.
+    own_num, own_den : dict
+        species -> (sample, season) the same sums of each sample alone, to leave a
+        period's own samples out of its fill (:func:`_leave_out`).
+    """
     t0, t1 = screened.variables["start"].values.min(), screened.variables["end"].values.max()
     seasons = _periods.make_periods(t0, t1, "season")
     table = _split(screened, seasons, opt, met)
@@ -102,14 +112,50 @@ def _climatology(screened, opt, met, site_idx, n_site, species, gauge_prof):
         screened.variables["gauge_depth_used"].values.astype(float), gauge_prof, site_idx), 0.0)
     s_of = pd.Index(_periods.SEASON_NAMES).get_indexer(seasons["season"].values)
     shape = (n_site, _N_SEASONS)
+    n_samp = screened.sizes["sample"]
     flat = site_idx[i] * _N_SEASONS + s_of[table["period"].values]
-    pwm, num, den = _weighted(table, screened, weight, used, flat, n_site * _N_SEASONS, species)
-    by_season = {sp: pwm[sp].reshape(shape) for sp in species}
-    whole = {}
+    by_sample = i * _N_SEASONS + s_of[table["period"].values]
+    _, num, den = _weighted(table, screened, weight, used, flat, n_site * _N_SEASONS, species)
+    _, o_num, o_den = _weighted(table, screened, weight, used, by_sample, n_samp * _N_SEASONS,
+                                species)
+    return ({sp: num[sp].reshape(shape) for sp in species},
+            {sp: den[sp].reshape(shape) for sp in species},
+            {sp: o_num[sp].reshape(n_samp, _N_SEASONS) for sp in species},
+            {sp: o_den[sp].reshape(n_samp, _N_SEASONS) for sp in species})
+
+
+def _leave_out(clim, table, site_idx, cat, has_season, n_site, n_per, species):
+    """The seasonal fill of each (site, period) without the period's own samples [mol m-3].
+
+    The fill of a period estimates its PWM from other data: the used samples of the same
+    season in the record (the whole record for a year or a custom range), less every
+    sample that overlaps the period (a sample straddling its edge included), so that
+    none of the failed period's own chemistry enters its fill (docs/methods_wet.md
+    section 7).  NaN where nothing else is left.
+    """
+    num, den, o_num, o_den = clim
+    i = table["interval"].values
+    p = table["period"].values
+    # each (sample, period) once: a sample's pieces in a period are one row of the split
+    key = np.unique(i * n_per + p)
+    si, pi = key // n_per, key % n_per
+    flat = site_idx[si] * n_per + pi
+    sel = np.clip(cat[pi], 0, _N_SEASONS - 1)
+    out = {}
     for sp in species:
-        n_all, d_all = num[sp].reshape(shape).sum(1), den[sp].reshape(shape).sum(1)
-        whole[sp] = n_all / np.where(d_all > 0, d_all, np.nan)
-    return by_season, whole
+        own_n = np.where(has_season[pi], o_num[sp][si, sel], o_num[sp][si].sum(1))
+        own_d = np.where(has_season[pi], o_den[sp][si, sel], o_den[sp][si].sum(1))
+        own_n = group_sums(own_n, flat, n_site * n_per).reshape(n_site, n_per)
+        own_d = group_sums(own_d, flat, n_site * n_per).reshape(n_site, n_per)
+        all_n = np.where(has_season[None, :], num[sp][:, np.clip(cat, 0, _N_SEASONS - 1)],
+                         num[sp].sum(1)[:, None])
+        all_d = np.where(has_season[None, :], den[sp][:, np.clip(cat, 0, _N_SEASONS - 1)],
+                         den[sp].sum(1)[:, None])
+        rest_n, rest_d = all_n - own_n, all_d - own_d
+        # to rounding: nothing left once the own samples are taken out
+        left = rest_d > 1e-9 * np.maximum(all_d, 1.0)
+        out[sp] = np.where(left, rest_n / np.where(left, rest_d, 1.0), np.nan)
+    return out
 
 
 def sample_weights(screened: xr.Dataset, ptable: pd.DataFrame, options: WetOptions,
@@ -320,13 +366,13 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     ion_fill = {sp: np.zeros(shape, bool) for sp in species}     # the ion's PWM was filled
     fill_n = 0
     if opt.period_fill == "seasonal" and failed.any():
-        by_season, whole = _climatology(screened, opt, met, site_idx, n_site, species,
-                                        gauge_prof)
         cat = pd.Index(_periods.SEASON_NAMES).get_indexer(ptable["season"].values)
         has_season = ptable["kind"].isin(["month", "season"]).values & (cat >= 0)
+        loo = _leave_out(_climatology(screened, opt, met, site_idx, n_site, species,
+                                      gauge_prof),
+                         table, site_idx, cat, has_season, n_site, n_per, species)
         for sp in species:
-            clim = np.where(has_season[None, :], by_season[sp][:, np.clip(cat, 0, _N_SEASONS - 1)],
-                            whole[sp][:, None])
+            clim = loo[sp]
             # missing chemistry is filled, missing rain is not: a period whose gauge
             # record fails keeps its own PWM and stays flagged (section 7)
             take = failed & wet & np.isfinite(clim) & ~gauge_short
