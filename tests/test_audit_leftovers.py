@@ -139,3 +139,77 @@ def test_a_record_of_one_season_leaves_no_fill():
     jan = wet.sel(site="A", period="2021-01")
     assert jan["status"].item() == "flagged" and not bool(jan["filled"].item())
     assert jan["pwm_SO4"].item() == pytest.approx(90e-3)
+
+
+# ----------------------------------------- 1. a sample without the sea-salt tracer is named
+def test_a_precipitation_sample_without_na_is_named_and_its_sea_salt_estimated(tmp_path):
+    # the invented tiny site of tests/test_budget.py: weeks of 10, 0 (dry), 20 and 5 mm
+    # with SO4 20, -, 10, 40 umol/L; Na 50, -, (none), 50 umol/L. The nss PWM is the SO4
+    # PWM less 0.0605 x the Na PWM of the samples that have Na (Keene et al. 1986, SO4/Na
+    # 0.121 eq/eq, from memory): the 20 mm week takes the period's Na PWM of its other
+    # samples (50 umol/L). Its Na share is 15/35 = 0.43 < 0.7, so the row also fails as
+    # before; what is new is the note naming the sample (line 4, from 2021-02-15).
+    from test_budget import GAUGE, SO4_UMOL, _get, _write
+
+    from workbench.cli import run_scenario
+    sc = _write(tmp_path)
+    sc.write_text(sc.read_text().replace('sulfate_basis = "total"', 'sulfate_basis = "nss"'))
+    precip = tmp_path / "precip.csv"
+    lines = precip.read_text().splitlines()
+    na = {1: "50.0", 3: "", 4: "50.0"}                     # file lines 2, 4, 5
+    for r, v in na.items():
+        lines[r] = lines[r].rsplit(",", 1)[0] + "," + v
+    precip.write_text("\n".join(lines) + "\n")
+    written, _, _ = run_scenario(sc, tmp_path / "out", quiet=True)
+    so4 = _get(pd.read_csv(written["budget.csv"]), "S", "wet", "SO4")
+    wet = [(c, p) for c, p in zip(SO4_UMOL, GAUGE) if p > 0]
+    pwm_so4 = sum(c * p for c, p in wet) / sum(p for _, p in wet)
+    nss = pwm_so4 - 0.121 / 2 * 50.0                                       # umol/L
+    assert so4["flux_kg_ha"] == pytest.approx(nss * 1e-6 * sum(GAUGE) * 32.06e-3 * 1e4,
+                                              rel=1e-6)
+    assert ("Na missing in 1 sample with SO4 (from 2021-02-15 line 4; 57.1 % of the "
+            "precipitation): sea salt taken as the period's Na PWM of its other samples"
+            in so4["note"]), so4["note"]
+
+
+@pytest.mark.parametrize("missing", [[1], [0, 1, 2, 3]])
+def test_weeks_of_particulate_sulfate_without_sodium_are_named(tmp_path, missing):
+    # pSO4 2.0 ug/m3 and pNa 1.0 ug/m3 every week of February 2021 at Vd 0.2 cm/s, pNa
+    # missing in the weeks `missing`: their total pSO4 (sea salt included) stands for the
+    # non-sea-salt part, as before, but now the row is flagged and names them (before:
+    # 'complete', no word). nss pSO4 = pSO4 - 0.0605 pNa (Keene et al. 1986, from
+    # memory); IUPAC molar masses from memory: SO4 96.056, Na 22.990 g/mol.
+    from test_budget import WEEKS, _get, _with_particles
+
+    from workbench.cli import run_scenario
+    sc = _with_particles(tmp_path)
+    sc.write_text(sc.read_text().replace('sulfate_basis = "total"', 'sulfate_basis = "nss"'))
+    air = tmp_path / "air.csv"
+    lines = air.read_text().splitlines()
+    for w in missing:
+        lines[2 + w] = lines[2 + w].rsplit(",", 1)[0] + ","
+    air.write_text("\n".join(lines) + "\n")
+    written, _, _ = run_scenario(sc, tmp_path / "out", quiet=True)
+    row = _get(pd.read_csv(written["budget.csv"]), "S", "dry", "pSO4")
+    so4, na = 2.0e-6 / 96.056, 1.0e-6 / 22.990                           # mol/m3
+    week = 0.2e-2 * 7 * 86400                                            # m of air
+    by_hand = sum((so4 if w in missing else so4 - 0.121 / 2 * na) * week
+                  for w in range(4)) * 32.06e-3 * 1e4                   # kg S/ha
+    assert row["flux_kg_ha"] == pytest.approx(by_hand, rel=1e-3)
+    days = ", ".join(f"{WEEKS[w]:%Y-%m-%d}" for w in missing)
+    assert row["status"] == "flagged"
+    assert (f"pNa missing in {len(missing)} of 4 pSO4 samples (from {days}): total pSO4 "
+            "used for them (sea salt included)") in row["note"], row["note"]
+    tot = _get(pd.read_csv(written["budget.csv"]), "S", "total", "all")
+    assert bool(tot["passes"])                  # flagged for the basis, not for coverage
+
+
+def test_a_site_with_every_week_of_sodium_says_nothing(tmp_path):
+    from test_budget import _get, _with_particles
+
+    from workbench.cli import run_scenario
+    sc = _with_particles(tmp_path)
+    sc.write_text(sc.read_text().replace('sulfate_basis = "total"', 'sulfate_basis = "nss"'))
+    written, _, _ = run_scenario(sc, tmp_path / "out", quiet=True)
+    row = _get(pd.read_csv(written["budget.csv"]), "S", "dry", "pSO4")
+    assert row["status"] == "complete" and "pNa missing" not in str(row["note"])

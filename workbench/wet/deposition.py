@@ -158,6 +158,37 @@ def _leave_out(clim, table, site_idx, cat, has_season, n_site, n_per, species):
     return out
 
 
+def _tracer_gaps(screened, table, weight, used, flat, shape, precip, ion, tracer, silent):
+    """Words naming the samples of each (site, period) whose `ion` is used without a value
+    of the sea-salt `tracer` ("" where none, or where `silent`).
+
+    The nss PWM subtracts the tracer's PWM over the samples that have it from the ion's
+    PWM over the samples that have the ion: a sample without the tracer is thereby given
+    the period's tracer PWM of its other samples (docs/methods_wet.md section 8).
+    """
+    i = table["interval"].values
+    c_ion = np.asarray(screened.variables[ion].values, float)[i]
+    c_tr = np.asarray(screened.variables[tracer].values, float)[i]
+    hit = used & np.isfinite(c_ion) & ~np.isfinite(c_tr) & (weight > 0)
+    out = np.full(shape, "", dtype=object)
+    if not hit.any():
+        return out
+    start = pd.DatetimeIndex(screened.variables["start"].values[i[hit]]).strftime("%Y-%m-%d")
+    line = (screened.variables["line"].values[i[hit]] if "line" in screened.variables
+            else np.full(int(hit.sum()), -1))
+    name = [f"{d} line {int(n)}" if n >= 0 else d for d, n in zip(start, line)]
+    g = pd.DataFrame({"flat": flat[hit], "name": name, "w": weight[hit]})
+    agg = g.groupby("flat").agg(names=("name", ", ".join), n=("name", "size"), w=("w", "sum"))
+    cells = agg.index.to_numpy()
+    s_, p_ = np.unravel_index(cells, shape)
+    pct = 100 * agg["w"].to_numpy() / np.where(precip[s_, p_] > 0, precip[s_, p_], np.nan)
+    words = [f"{tracer} missing in {n} sample{'s' if n > 1 else ''} with {ion} (from {names}; "
+             f"{p:.1f} % of the precipitation): sea salt taken as the period's {tracer} PWM "
+             "of its other samples" for n, names, p in zip(agg["n"], agg["names"], pct)]
+    out[s_, p_] = words
+    return np.where(silent, "", out).astype(object)
+
+
 def sample_weights(screened: xr.Dataset, ptable: pd.DataFrame, options: WetOptions,
                    met: xr.Dataset | None = None):
     """The (sample, period) pieces of the screened samples and their precipitation weights.
@@ -433,6 +464,10 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     var("precipitation_valid", precip_valid, "mm", "precipitation depth with valid chemistry")
     tracer = opt.seasalt_tracer
     nss, nss_state = {}, {}
+
+    def filled_ok(ion, tr):
+        # a filled PWM does not rest on the period's own samples: nothing to say there
+        return ~(ion_fill.get(ion, np.zeros(shape, bool)) | ion_fill.get(tr, np.zeros(shape, bool)))
     if tracer in pwm:
         for ion in seasalt.corrected_ions(tracer, species):
             raw = seasalt.non_seasalt(pwm[ion], pwm[tracer], ion, tracer)
@@ -441,7 +476,10 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
             no_tracer = np.isfinite(pwm[ion]) & ~np.isfinite(pwm[tracer])
             clipped = np.isfinite(raw) & (raw < 0)
             nss[f"nss{ion}"] = (np.where(no_tracer, pwm[ion], np.where(clipped, 0.0, raw)), ion)
-            nss_state[f"nss{ion}"] = (no_tracer, clipped)
+            nss_state[f"nss{ion}"] = (no_tracer, clipped,
+                                      _tracer_gaps(screened, table, weight, used, flat, shape,
+                                                   precip, ion, tracer, no_tracer | ~filled_ok(
+                                                       ion, tracer)))
     for sp in species:
         label = "free acidity H+" if sp == "H" else sp
         var(f"pwm_{sp}", pwm[sp], "mol m-3", f"precipitation-weighted mean of {label}")
@@ -450,7 +488,9 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         var(f"pwm_{name}", values, "mol m-3",
             f"precipitation-weighted mean of non-sea-salt {ion} (tracer {tracer})",
             seasalt_tracer=tracer)
-        no_tracer, clipped = nss_state[name]
+        no_tracer, clipped, gaps = nss_state[name]
+        var(f"{name}_tracer_estimated", gaps, "", f"samples of the period with {ion} but "
+            f"no {tracer}: their sea salt is the period's {tracer} PWM of its other samples")
         var(f"{name}_total_used", no_tracer, "", f"no {tracer} in the period: total {ion} "
             f"used in place of non-sea-salt {ion}")
         var(f"{name}_clipped", clipped, "", f"sea-salt {ion} from {tracer} exceeds the "
