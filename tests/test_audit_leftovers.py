@@ -213,3 +213,77 @@ def test_a_site_with_every_week_of_sodium_says_nothing(tmp_path):
     written, _, _ = run_scenario(sc, tmp_path / "out", quiet=True)
     row = _get(pd.read_csv(written["budget.csv"]), "S", "dry", "pSO4")
     assert row["status"] == "complete" and "pNa missing" not in str(row["note"])
+
+
+# ------------------------------- 3. Monte Carlo of a dry nss pSO4 period clipped at 0
+def _nss_near_zero(tmp_path, excess=0.01):
+    """The tiny site of tests/test_budget.py with pSO4 2.0 ug/m3 every week of February
+    2021 at Vd 0.2 cm/s and pNa such that its sea-salt sulfate is (1 + excess) x the
+    pSO4 (molar masses IUPAC, from memory: SO4 96.056, Na 22.990 g/mol; SO4/Na 0.0605
+    mol/mol, Keene et al. 1986, from memory): the month's nss sum is below 0 and
+    clipped in the budget. Returns (study, result, T_n [kg S/ha per week])."""
+    from test_budget import _with_particles
+
+    from workbench.pipeline import Study
+    from workbench.scenario import load_scenario
+    sc = _with_particles(tmp_path)
+    sc.write_text(sc.read_text().replace('sulfate_basis = "total"', 'sulfate_basis = "nss"'))
+    so4_mol = 2.0e-6 / 96.056                                            # mol/m3
+    na_ug = (1 + excess) * so4_mol / (0.121 / 2) * 22.990e6                # ug/m3
+    air = tmp_path / "air.csv"
+    lines = air.read_text().splitlines()
+    lines[2:] = [ln.rsplit(",", 1)[0] + f",{na_ug:.9f}" for ln in lines[2:]]
+    air.write_text("\n".join(lines) + "\n")
+    s = load_scenario(sc)
+    study = Study.from_scenario(s)
+    res = study.run(s.options["wet"], s.options["dry"], s.options["budget"], s.fixed_velocity,
+                    "month", "2021-02-01", "2021-03-01")
+    t_week = so4_mol * 0.2e-2 * 7 * 86400 * 32.06e-3 * 1e4               # kg S/ha
+    return study, res, t_week
+
+
+def test_a_clipped_dry_nss_period_gets_an_honest_interval(tmp_path):
+    # Only the air analyses err (5 %, pSO4 and pNa apart; every other spread 0). A draw
+    # is max(0, sum_n d_n T_n - e_n S_n) with T_n the week's total pSO4 and S_n = 1.01
+    # T_n its sea-salt sulfate: by hand a normal of mean -0.04 T and standard deviation
+    # 0.05 T sqrt(4 + 4 x 1.01^2) = 0.1421 T, clipped at 0, so its 5 and 50 % quantiles
+    # are 0 and its 95 % quantile is -0.04 T + 1.6449 x 0.1421 T = 0.194 T (normal
+    # quantile 1.6449, common practice). Before, the clipped period's point was 0 and
+    # every draw 0 x ratio = 0: a 5-95 % range of [0, 0], as if known exactly.
+    import sys as _sys
+    _sys.path.insert(0, str(Path(__file__).parent / "analysis"))
+    from tiny_site import OFF
+
+    from workbench.analysis import uncertainty as U
+    from workbench.analysis.quantile_tables import quantile_table  # noqa: F401
+    study, res, t = _nss_near_zero(tmp_path)
+    row = res.table[(res.table["species"] == "pSO4") & (res.table["pathway"] == "dry")]
+    assert row["flux_kg_ha"].iloc[0] == 0.0 and "clipped" in row["note"].iloc[0]
+    opt = U.UncertaintyOptions(draws=4000, seed=11, **{**OFF, "air_rel_sd": 0.05})
+    q = U.monte_carlo(res, study, opt)
+    dep = q.budget["deposition"].sel(site="alpha", component="S/dry/pSO4").isel(period=0)
+    kg = dep.values[:, 0] * 32.06e-3 * 1e4                        # (quantile,) kg S/ha
+    sd = 0.05 * t * np.sqrt(4 + 4 * 1.01 ** 2)
+    p95 = -0.04 * t + 1.6449 * sd
+    assert kg[0] == 0.0 and kg[1] == 0.0
+    assert kg[2] == pytest.approx(p95, rel=0.08)
+    assert (dep.values >= 0).all()                                # never a negative draw
+
+
+def test_a_dry_nss_period_above_zero_draws_its_two_analyses_apart(tmp_path):
+    # the same with sea salt 0.8 x pSO4: the nss sum 0.2 x 4 T is kept, and its spread is
+    # that of the difference, 0.05 T sqrt(4 + 4 x 0.64) = 0.1281 T (by hand), not 5 % of
+    # the nss value (0.04 T, the old draws): p95 - p05 = 2 x 1.6449 x 0.1281 T
+    import sys as _sys
+    _sys.path.insert(0, str(Path(__file__).parent / "analysis"))
+    from tiny_site import OFF
+
+    from workbench.analysis import uncertainty as U
+    study, res, t = _nss_near_zero(tmp_path, excess=-0.2)
+    opt = U.UncertaintyOptions(draws=4000, seed=11, **{**OFF, "air_rel_sd": 0.05})
+    q = U.monte_carlo(res, study, opt)
+    dep = q.budget["deposition"].sel(site="alpha", component="S/dry/pSO4").isel(period=0)
+    kg = dep.values[:, 0] * 32.06e-3 * 1e4
+    assert kg[1] == pytest.approx(0.8 * t, rel=0.03)
+    sd = 0.05 * t * np.sqrt(4 + 4 * 0.8 ** 2)
+    assert kg[2] - kg[0] == pytest.approx(2 * 1.6449 * sd, rel=0.08)

@@ -52,6 +52,9 @@ class SiteNoise:
     vd_class: dict = field(default_factory=dict)
     lab_precip: dict = field(default_factory=dict)
     lab_air: dict = field(default_factory=dict)
+    #: species -> (D, n_rows) errors of the pNa analysis behind the sea-salt sulfate of a
+    #: non-sea-salt pSO4 row (``DryPieces.seasalt``), drawn apart from the pSO4 [1]
+    air_seasalt: dict = field(default_factory=dict)
 
 
 def _normal_factor(rng, sd, shape):
@@ -324,7 +327,7 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
                                               lab_changes, sd_lab, d, n_years, year0)
                 pconc[ion] *= sample_lab_bias(lab_precip[ion], lab_changes, wet.start,
                                               wet.end, year0, n_years, cens)
-    air, vd_fill = {}, {}
+    air, vd_fill, air_ss = {}, {}, {}
     for sp in DRY_SPECIES:
         if sp not in layer_site.dry:
             continue
@@ -350,6 +353,19 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
                     air[sp] *= b
                 else:
                     air[sp][:, sel] *= b
+        if rows.seasalt is not None:
+            # the sea-salt sulfate of a non-sea-salt pSO4 row comes from the pNa analysis
+            # of the same sample: an error of its own (stream "air" of member pNa), and
+            # the pNa laboratory's bias
+            ss_id = [("pNa",) + tuple(i[1:]) if i else ("pNa",) for i in rows.ident]
+            air_ss[sp] = keyed_normal_factor(key, "air", ss_id, opt.air_rel_sd, d)
+            if sd_lab > 0 and rows.start is not None:
+                if "pNa" not in lab_air:
+                    lab_air["pNa"] = _per_period(opt, key, [LAB_BIAS] + _stream_key(("air", "pNa")),
+                                                 lab_changes, sd_lab, d, n_years, year0)
+                air_ss[sp] *= sample_lab_bias(lab_air["pNa"], lab_changes, rows.start,
+                                              rows.end, year0, n_years,
+                                              np.zeros(len(rows.ident), bool))
         # a fill error acts on the hours not modelled only: none drawn without them
         sd_fill = np.where((rows.filled > 0).any(axis=(1, 2)), opt.vd_fill_rel_sd, 0.0)
         vd_fill[sp] = keyed_normal_factor(key, f"vd_fill:{sp}", rows.ident, sd_fill, d) - 1.0
@@ -363,4 +379,4 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
         pwm_fill[ion] = keyed_normal_factor(key, f"pwm_fill:{ion}", bounds,
                                             opt.pwm_fill_rel_sd, d)
     return SiteNoise(vd, gauge, depth, pconc, air, vd_fill, pwm_fill, gauge_periods, vd_class,
-                     lab_precip, lab_air)
+                     lab_precip, lab_air, air_ss)
