@@ -563,7 +563,9 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         Vd was filled or, missing, taken as the sampling period's mean), ``flux_coverage`` [1] (hours with a concentration
         and a deposition velocity: 0 where Vd or the air density is missing for every
         hour, and the deposition is then NaN, never 0), ``measured`` (site, species),
-        ``mixing_ratio`` (species: given as a mixing ratio), the pair brackets
+        ``mixing_ratio`` (species: given as a mixing ratio), ``pSO4_total_used`` (site,
+        period; text naming the pSO4 samples without pNa whose total pSO4 was used on
+        the nss basis, "" where none; :func:`total_used_notes`), the pair brackets
         (:func:`workbench.drypairs.bracket_variables`) and,
         when the rows hold the bidirectional NH3 exchange, ``nh3_net`` (deposition -
         emission, positive down) and ``nh3_emission`` [mol m-2] (site, receptor, period).

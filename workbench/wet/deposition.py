@@ -283,7 +283,9 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         ``completeness_failed`` (bool), ``flagged_precip_fraction`` [1] (share of
         the precipitation carried by kept flagged samples);
         ``nss<X>_total_used`` and ``nss<X>_clipped`` (bool: no tracer, so the total
-        ion stands in; negative nss clipped at 0);
+        ion stands in; negative nss clipped at 0); ``nss<X>_tracer_estimated`` (text
+        naming the samples with the ion but no tracer, whose sea salt is the period's
+        tracer PWM of its other samples; "" where none);
         ``ion_valid_precip_fraction``, ``ion_n_valid``, ``ion_n_censored``,
         ``ion_filled`` (site, period, ion; the ion's PWM is the seasonal fill),
         ``ion_all_censored`` (every valid value of the ion below detection).
