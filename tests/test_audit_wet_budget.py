@@ -40,7 +40,8 @@ def _filled_january():
     contaminated 29 Jan - 1 Feb sample of 20 mm; Feb 2021 10 mm (SO4 80). January's
     time coverage is 28/31 = 0.903 (passes 0.90) but only 5 of its 25 mm have valid
     chemistry (0.20 < 0.70): it fails, and period_fill = "seasonal" gives it the winter
-    PWM of the record's used samples, (30 x 20 + 5 x 50 + 10 x 80) / 45 = 36.67 umol/L."""
+    PWM of the record's used samples other than its own (leave-one-out, 2026-12
+    qc-audit), (30 x 20 + 10 x 80) / 40 = 35 umol/L."""
     rows = [dict(start="2020-12-01", end="2021-01-01", gauge_depth=30.0, SO4=20, Na=5),
             dict(start="2021-01-01", end="2021-01-29", gauge_depth=5.0, SO4=50, Na=5),
             dict(start="2021-01-29", end="2021-02-01", gauge_depth=20.0, SO4=500, Na=5,
@@ -55,7 +56,7 @@ def _filled_january():
 def test_a_period_filled_with_the_seasonal_pwm_reads_filled_in_the_budget(basis):
     wet = _filled_january()
     jan = wet.sel(site="A", period="2021-01")
-    winter = (30 * 20 + 5 * 50 + 10 * 80) / 45                       # umol/L, by hand
+    winter = (30 * 20 + 10 * 80) / 40                # umol/L, by hand (own samples out)
     assert jan["valid_precip_fraction"].item() == pytest.approx(5 / 25)
     assert jan["status"].item() == "filled"
     assert jan["pwm_SO4"].item() == pytest.approx(winter * 1e-3)        # mol m-3

@@ -162,3 +162,48 @@ def test_the_period_is_the_sum_of_the_runs_of_each_collectors_samples(tmp_path):
         want = float(a[f"dep_{ion}"]) + F * float(c[f"dep_{ion}"])
         np.testing.assert_allclose(float(b["deposition"].sel(component=f"{el}/wet/{ion}")),
                                    want, rtol=1e-12)
+
+
+def test_a_sample_holding_the_change_day_is_split_by_its_met_rain_with_straddle_met(tmp_path):
+    """straddle = "met" (qc-audit; checked by hand only before): the change dated
+    2021-06-10 inside the second sample (06-08 00:00 to 06-15 09:00) splits it by its
+    hourly met precipitation, not its hours. Invented met: 3 h of 1 mm ending 06-08
+    01:00-03:00 (wet-only collector) and 4 h of 0.5 mm ending 06-12 01:00-04:00 (bulk),
+    no rain elsewhere: 2 of its 5 mm fell under bulk, beta = 0.4 (by hours 129/177 =
+    0.729). scale_wet (F = 0.8) on the bulk part of each sample, by hand from the rows
+    (docs/methods_wet.md section 4: a straddling sample split by the met rain); the
+    hours share, which exclude_particles reads, stays 129/177."""
+    import pandas as pd
+    from wet.wet_samples import make_met
+
+    from workbench.budget import BudgetOptions, assemble
+    from workbench.surfacehistory import collector_history, collector_split
+    from workbench.wet import WetOptions, wet_deposition
+    cat, scr, per = _june(tmp_path, "2021-06-10")
+    before = pd.date_range("2021-06-08T01:00", periods=3, freq="h")
+    after = pd.date_range("2021-06-12T01:00", periods=4, freq="h")
+
+    def rain(t):
+        return np.where(t.isin(before), 1.0, np.where(t.isin(after), 0.5, 0.0))
+    met = make_met(["alpha"], "2021-05-31T00:00", "2021-07-02T00:00", precipitation=rain)
+    o = WetOptions(straddle="met")
+    wet = wet_deposition(scr, per, o, met)
+    split = collector_split(scr, per, o, met, collector_history(cat),
+                            {s.id: s.collector for s in cat})
+    b = assemble(wet, None, cat, per, BudgetOptions(bulk_correction="scale_wet",
+                                                    bulk_wet_factor=F, sulfate_basis="total"),
+                 ["grass"], collector=split).sel(site="alpha", receptor="grass").isel(period=0)
+    beta_met = 2.0 / (3.0 + 2.0)
+    for ion, comp in (("SO4", "S/wet/SO4"), ("NO3", "N/wet/NO3"), ("NH4", "N/wet/NH4")):
+        got = float(b["deposition"].sel(component=comp))
+        np.testing.assert_allclose(got, _by_hand([0, beta_met, 1, 1], ion), rtol=1e-12)
+        # by the hours it would be another number: the test tells the rules apart
+        assert abs(got - _by_hand([0, 129 / 177, 1, 1], ion)) > 1e-4 * got
+    assert bool(split["estimated"][0, 0])
+    hours_bulk = (129 + ROWS_H[2] + ROWS_H[3]) / (30 * 24)   # samples 3 and 4 wholly bulk
+    np.testing.assert_allclose(split["hour_share"][0, 0], hours_bulk, rtol=1e-12)
+    assert str(b["status"].sel(component="S/wet/SO4").values) == "flagged"
+
+
+#: hours of each sample of ROWS (from their dates, by hand)
+ROWS_H = [7 * 24, 7 * 24 + 9, 6 * 24 + 15, 9 * 24]

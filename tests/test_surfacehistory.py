@@ -350,6 +350,7 @@ def test_run_folder_of_a_changed_site_accounts_rows_and_verifies(record, runs, t
     import xarray as xr
 
     from workbench.cli import main
+    case = name                 # (`name` is taken by the loop over the files below)
     if name != "history":
         text = (_mast_site("grass", 0.15, '"conifer_forest"').replace(
             'collector = "wet_only"', 'collector = "bulk"')
@@ -379,6 +380,20 @@ def test_run_folder_of_a_changed_site_accounts_rows_and_verifies(record, runs, t
     v = xr.open_dataset(out / "velocities.nc")
     assert "land_use_in_force" in v and v["land_use_in_force"].attrs["flag_meanings"].split()[0] \
         == "conifer_forest"
+    # the class under the wind mast per hour (stage mast_in_force), read back: a CF flag
+    # variable; with met_land_use = "grass" given ("history") grass in every hour, without
+    # it ("m_history_c") the forest until the felling at 2014-04-01 00:00 UTC (the hour
+    # ending then is the forest's last), the grass after (qc-audit; before, velocities.nc
+    # had no such variable)
+    mast = v["mast_land_use"].sel(site="haugh")
+    meanings = v["mast_land_use"].attrs["flag_meanings"].split()
+    values = [int(x) for x in np.atleast_1d(v["mast_land_use"].attrs["flag_values"])]
+    assert len(meanings) == len(values) and mast.dims == ("time",)
+    named = np.array([meanings[values.index(int(c))] for c in mast.values])
+    before = v["time"].values <= FELLED
+    assert before.any() and (~before).any()
+    assert (named[~before] == "grass").all()
+    assert (named[before] == ("grass" if case == "history" else "conifer_forest")).all()
     v.close()
     from cf_check import cf_check        # cfchecker (CF 1.8), as tests/test_cf_outputs.py
     for name in ("velocities.nc", "budget.nc"):

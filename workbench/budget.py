@@ -31,7 +31,8 @@ from .budgetstatus import (as_flag, bracket_outputs, bulk_caught_brackets, dry_s
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
 from .surfacehistory import collector_shares, describe, period_notes
-from .units import deposition_in, element_deposition_in
+from .species import element_molar_mass
+from .units import UG_PER_KG, deposition_in, element_deposition_in
 
 #: (element, pathway, species, source variable) of every budget component, in order.
 COMPONENTS = (
@@ -465,6 +466,20 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             comp_note[..., j] = np.where(neg, join_notes(
                 comp_note[..., j], "sea-salt sulfate from pNa exceeds the measured pSO4: "
                 "non-sea-salt pSO4 clipped at 0"), comp_note[..., j])
+        # weeks of pSO4 without pNa: their total pSO4 stands in (sea salt included),
+        # flagged with the weeks named, as the wet chain's "total SO4 used" (the period
+        # still passes; docs/budget.md, "Components and units")
+        if "pSO4_total_used" in dr.variables:
+            words = np.asarray(dr.variables["pSO4_total_used"].values, object)
+            said = np.array([isinstance(x, str) and x != "" for x in words.ravel()],
+                            bool).reshape(words.shape)[:, None, :] & np.ones((1, n_r, 1), bool)
+            said &= (status[..., j] != "missing") & ~np.char.startswith(
+                comp_note[..., j].astype(str), "caught by the bulk collector")
+            status[..., j] = np.where(said & np.isin(status[..., j], ("complete", "filled")),
+                                      "flagged", status[..., j])
+            comp_note[..., j] = np.where(said, join_notes(
+                comp_note[..., j], (words[:, None, :] * np.ones((1, n_r, 1), object)).astype(str)),
+                comp_note[..., j])
     # a site's own surface under a land-use class other than its land_use in the period
     # (workbench/surfacehistory.py): its dry rows say which
     lu = period_notes(catalogue, sites, list(receptors), periods)
@@ -791,7 +806,7 @@ def derived(ds: xr.Dataset) -> xr.Dataset:
             ).astype(object), {"long_name": f"status of dry_N_{how}_kg_ha (docs/budget.md)"})
         if "air_concentration" in ds:
             c = ds["air_concentration"]
-            n_mass = 14.007e-3 * 1e9  # mol N -> ug N
+            n_mass = element_molar_mass("N") * UG_PER_KG   # mol N -> ug N [ug mol-1]
             for name, (gas, prt) in (("total_nitrate", PAIRS["nitrate"]),
                                      ("total_ammonia_ammonium", PAIRS["ammonium"])):
                 if gas in c["air_species"].values and prt in c["air_species"].values:

@@ -209,6 +209,14 @@ def wet_mean_status(w, name, w_status, fallback=False):
                 hit = as_flag(w[var].transpose(*dims).values)
                 soft |= hit
                 notes.append((hit, text))
+    if name != ion and f"{name}_tracer_estimated" in v:
+        # samples without the tracer in a period whose other samples have it: said in
+        # words, naming them, the status kept (the tracer's share below judges how much
+        # of the rain it covers; docs/methods_wet.md section 8)
+        est = w[f"{name}_tracer_estimated"].transpose(*dims).values
+        said = np.array([isinstance(x, str) and x != "" for x in est.ravel()],
+                        bool).reshape(shape) & (status != "missing")
+        notes.append((said, np.where(said, est, "").astype(str)))
     status = np.where(soft & np.isin(status, ("complete", "filled")), "flagged", status)
     precip = (w["precipitation"].transpose(*dims).values if "precipitation" in v
               else np.full(shape, np.nan))

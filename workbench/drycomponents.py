@@ -105,16 +105,71 @@ def nh3_exchange_velocities(vd_ds, min_slot_hours=7, slots=None):
 
 
 def _nss_particles(air: xr.Dataset, basis: str) -> xr.Dataset:
-    """Replace pSO4 by its non-sea-salt part where pNa is measured (Keene et al. 1986)."""
-    if basis != "nss" or "pSO4" not in air or "pNa" not in air:
+    """Replace pSO4 by its non-sea-salt part where pNa is measured (Keene et al. 1986).
+
+    A pSO4 row without a pNa value (the sodium sampler missing that week, or no pNa at
+    all) keeps its total pSO4, sea salt included, and is marked in
+    ``pSO4_total_used`` (bool per row), which the budget names in the period's note
+    (docs/budget.md, "Components and units"); a pNa below detection counts as a value.
+    """
+    if basis != "nss" or "pSO4" not in air:
         return air
     from .wet.seasalt import non_seasalt
     air = air.copy()
+    so4 = air["pSO4"].values
+    has_so4 = np.isfinite(so4) | (air["pSO4_censored"].values.astype(bool)
+                                  if "pSO4_censored" in air else False)
+    if "pNa" not in air:
+        air["pSO4_total_used"] = (air["pSO4"].dims, has_so4)
+        return air
     na = air["pNa"].values
-    nss = non_seasalt(air["pSO4"].values, np.where(np.isfinite(na), na, 0.0), "SO4", "Na")
-    air["pSO4"] = air["pSO4"].copy(data=np.where(np.isfinite(air["pSO4"].values), nss, np.nan))
+    na_cens = (air["pNa_censored"].values.astype(bool) if "pNa_censored" in air
+               else np.zeros(na.shape, bool))
+    nss = non_seasalt(so4, np.where(np.isfinite(na), na, 0.0), "SO4", "Na")
+    air["pSO4"] = air["pSO4"].copy(data=np.where(np.isfinite(so4), nss, np.nan))
     air["pSO4"].attrs["long_name"] = "particulate non-sea-salt sulfate (Keene et al. 1986)"
+    air["pSO4_total_used"] = (air["pSO4"].dims, has_so4 & ~np.isfinite(na) & ~na_cens)
     return air
+
+
+def total_used_notes(rows: dict, periods, sites) -> np.ndarray:
+    """Words per (site, period) naming the pSO4 samples whose total pSO4 stands for its
+    non-sea-salt part (no pNa that week: ``pSO4_total_used`` of :func:`_nss_particles`);
+    "" elsewhere.
+
+    Parameters
+    ----------
+    rows : dict
+        Output of :func:`dry_rows` (``rows["pSO4_total_used"]``: bool per pSO4 row).
+    periods : pandas.DataFrame
+    sites : sequence of str
+    """
+    n_s, n_p = len(sites), len(periods)
+    out = np.full((n_s, n_p), "", dtype=object)
+    flag = rows.get("pSO4_total_used")
+    r = rows["species"].get("pSO4")
+    if flag is None or r is None or not np.any(flag):
+        return out
+    t0 = np.asarray(r["start"], "datetime64[ns]")
+    t1 = np.asarray(r["end"], "datetime64[ns]")
+    p0 = periods["start"].values.astype("datetime64[ns]")
+    p1 = periods["end"].values.astype("datetime64[ns]")
+    si = np.asarray(r["site_index"])
+    k = np.flatnonzero(flag)
+    over = (t0[k, None] < p1[None, :]) & (t1[k, None] > p0[None, :])     # (flagged, P)
+    each = (t0[:, None] < p1[None, :]) & (t1[:, None] > p0[None, :])    # (rows, P)
+    kk, pp = np.nonzero(over)
+    if not len(kk):
+        return out
+    g = pd.DataFrame({"cell": si[k[kk]] * n_p + pp,
+                      "name": pd.DatetimeIndex(t0[k[kk]]).strftime("%Y-%m-%d")})
+    agg = g.groupby("cell")["name"].agg(list)
+    for cell, names in agg.items():          # one entry per flagged (site, period) cell
+        s_, p_ = divmod(int(cell), n_p)
+        n_all = int((each[:, p_] & (si == s_)).sum())
+        out[s_, p_] = (f"pNa missing in {len(names)} of {n_all} pSO4 samples (from "
+                       f"{', '.join(names)}): total pSO4 used for them (sea salt included)")
+    return out
 
 
 def _fingerprint(air: xr.Dataset, species: str) -> str:
@@ -318,6 +373,8 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
     def has_value(sp):        # a value, or a value below detection (enters substituted)
         cens = air_v[f"{sp}_censored"].values if f"{sp}_censored" in air_v else False
         return np.isfinite(air_v[sp].values) | cens
+    if "pSO4" in out["species"] and "pSO4_total_used" in air_v:
+        out["pSO4_total_used"] = air_v["pSO4_total_used"].values[out["species"]["pSO4"]["air_row"]]
     out["measured"] = np.stack(
         [np.isin(sites, np.unique(air_v["site"].values[has_value(sp)]))
          if sp in air_v else np.zeros(len(sites), bool) for sp in species_list], -1)
@@ -506,7 +563,9 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         Vd was filled or, missing, taken as the sampling period's mean), ``flux_coverage`` [1] (hours with a concentration
         and a deposition velocity: 0 where Vd or the air density is missing for every
         hour, and the deposition is then NaN, never 0), ``measured`` (site, species),
-        ``mixing_ratio`` (species: given as a mixing ratio), the pair brackets
+        ``mixing_ratio`` (species: given as a mixing ratio), ``pSO4_total_used`` (site,
+        period; text naming the pSO4 samples without pNa whose total pSO4 was used on
+        the nss basis, "" where none; :func:`total_used_notes`), the pair brackets
         (:func:`workbench.drypairs.bracket_variables`) and,
         when the rows hold the bidirectional NH3 exchange, ``nh3_net`` (deposition -
         emission, positive down) and ``nh3_emission`` [mol m-2] (site, receptor, period).
@@ -585,6 +644,9 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
          "concentration": (("site", "period", "species"), conc,
                            {"units": "mol m-3", "long_name": "time-weighted mean concentration "
                             "over the covered hours (amount of species; ambient)"}),
+         "pSO4_total_used": (("site", "period"), total_used_notes(rows, periods, sites),
+                             {"long_name": "pSO4 samples without pNa in the period: total "
+                              "pSO4 used for them in place of non-sea-salt pSO4"}),
          **brackets, **nh3},
         coords={"site": sites, "receptor": receptors, "period": periods["label"].values,
                 "species": species_list})

@@ -129,6 +129,42 @@ def mast_in_force(met: xr.Dataset, history) -> xr.Dataset:
     return met.assign(met_land_use_in_force=da)
 
 
+def mast_land_use(catalogue, sites, times) -> xr.Variable:
+    """The land-use class under each site's wind mast over each hour, for velocities.nc.
+
+    Parameters
+    ----------
+    catalogue : SiteCatalogue
+        With the site overrides applied.
+    sites : sequence of str
+    times : ndarray of datetime64
+        Ends of the hours (UTC).
+
+    Returns
+    -------
+    xarray.Variable
+        (site, time) int8: the position in :data:`CLASSES` of the class under the mast,
+        a CF flag variable (``flag_values`` -1 .. n-1, ``flag_meanings`` "unknown" and
+        the classes):
+        ``met_land_use`` where the site gives it (every hour), else the class of the
+        site's own surface in force at the hour (:func:`mast_in_force`, following its
+        declared land-use changes); -1 (unknown) for a site not in `catalogue`.
+    """
+    sites = [str(x) for x in sites]
+    grid = xr.Dataset(coords={"site": sites, "time": np.asarray(times)})
+    code = mast_in_force(grid, mast_history(catalogue, land_use_history(catalogue)))[
+        "met_land_use_in_force"].transpose("site", "time").values.astype(np.int8)
+    known = {s.id: s for s in catalogue}
+    now = np.array([CLASSES.index(c) if (c := (known[x].met_land_use or known[x].land_use)
+                                         if x in known else None) in CLASSES else -1
+                    for x in sites], np.int8)
+    code = np.where(code == AS_DECLARED, now[:, None], code).astype(np.int8)
+    return xr.Variable(("site", "time"), code, {
+        "long_name": "land-use class under the wind mast over each hour",
+        "flag_values": np.arange(-1, len(CLASSES), dtype=np.int8),
+        "flag_meanings": "unknown " + " ".join(CLASSES)})
+
+
 def earlier_classes(history) -> dict:
     """site -> the classes of its own surface before its last change (not its land use)."""
     out = {}

@@ -43,6 +43,21 @@ for _defn in ("ppm = 1e-6 = ppmv", "ppb = 1e-9 = ppbv", "ppt = 1e-12 = pptv",
 _pint_log.setLevel(_level)
 Q_ = ureg.Quantity
 
+
+def unit_factor(source: str, target: str) -> float:
+    """The number that turns a value in `source` into `target`, from the registry [1].
+
+    >>> unit_factor("kg", "ug"), unit_factor("ha", "m**2"), unit_factor("m", "mm")
+    (1000000000.0, 10000.0, 1000.0)
+    """
+    return float(ureg.Quantity(1.0, source).to(target).magnitude)
+
+
+#: ug per kg, m2 per ha, mm per m (pint): the factors written by hand before.
+UG_PER_KG = unit_factor("kg", "ug")
+M2_PER_HA = unit_factor("ha", "m**2")
+MM_PER_M = unit_factor("m", "mm")
+
 _HEADER = re.compile(r"^\s*(?P<name>[^\[\]]+?)\s*(?:\[(?P<unit>[^\[\]]*)\])?\s*$")
 _EQ = re.compile(r"(?<![A-Za-z])(p|n|u|µ|m|k)?eq(?![A-Za-z])")
 
@@ -346,7 +361,7 @@ def deposition_in(amount_m2, species: str, unit: str):
     """
     sp = _species.get(species)
     x = amount_m2
-    per_ha = 1e4  # m2 per ha
+    per_ha = M2_PER_HA
     if unit == "mmol_m2":
         return x * 1e3 * (sp.atoms if sp.element else 1)
     if unit == "kg_ha":
@@ -366,7 +381,7 @@ def element_deposition_in(amount_m2, element: str, unit: str):
     >>> round(float(element_deposition_in(1e-3, "N", "kg_ha")), 4)
     0.1401
     """
-    per_ha = 1e4
+    per_ha = M2_PER_HA
     if unit == "mmol_m2":
         return amount_m2 * 1e3
     if unit == "kg_ha":

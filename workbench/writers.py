@@ -339,7 +339,14 @@ def write_samples_csv(result, study, scenario, path):
 def write_velocities_nc(result, study, scenario, path):
     if result.velocities is None:
         return None
-    write_netcdf(velocities_dataset(result.velocities), path, "hourly aerodynamic, "
+    from .surfacehistory import mast_land_use
+    ds = velocities_dataset(result.velocities)
+    # the class under the wind mast per hour (the stage mast_in_force follows a site's
+    # land-use history; docs/methods_dry.md section 11)
+    ds["mast_land_use"] = mast_land_use(study.catalogue(), ds["site"].values
+                                        if "site" in ds.coords else result.velocities["site"].values,
+                                        ds["time"].values)
+    write_netcdf(ds, path, "hourly aerodynamic, "
                  "quasi-laminar and surface resistances and deposition velocities")
     return path
 

@@ -524,15 +524,16 @@ def test_a_failed_month_filled_with_the_seasonal_pwm_of_the_record():
     # Dec 2020: one sample, 30 mm, SO4 20; Jan 2021: 1-20 Jan, 20 mm, SO4 50, then a
     # contaminated 5 mm sample (coverage 19/31 < 0.9, gauge record whole); Feb 2021: one
     # sample, 10 mm, SO4 80 umol/L. period_fill = "seasonal": January takes the winter
-    # PWM of the record's used samples, (30 x 20 + 20 x 50 + 10 x 80) / 60 = 40 umol/L,
-    # times its own 25 mm.
+    # PWM of the record's used samples other than its own (leave-one-out, 2026-12
+    # qc-audit; before: 40 umol/L with its own 1-20 Jan sample), (30 x 20 + 10 x 80) / 40
+    # = 35 umol/L, times its own 25 mm.
     rows = [dict(start="2020-12-01", end="2021-01-01", gauge_depth=30.0, SO4=20),
             dict(start="2021-01-01", end="2021-01-20", gauge_depth=20.0, SO4=50),
             dict(start="2021-01-20", end="2021-02-01", gauge_depth=5.0, SO4=500,
                  flags="contaminated"),
             dict(start="2021-02-01", end="2021-03-01", gauge_depth=10.0, SO4=80)]
     per = P.make_periods("2020-12-01", "2021-03-01", "month")
-    for fill, jan_pwm, jan_status in (("none", 50.0, "flagged"), ("seasonal", 40.0, "filled")):
+    for fill, jan_pwm, jan_status in (("none", 50.0, "flagged"), ("seasonal", 35.0, "filled")):
         o = WetOptions(period_fill=fill)
         wet = wet_deposition(screen(make_samples(rows, ions=IONS), o), per, o)
         jan = _cell(wet, "2021-01")

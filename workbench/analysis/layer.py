@@ -56,6 +56,12 @@ class DryPieces:
     #: sample's middle for a site's own surface with a declared history); None: the
     #: receptor's name
     klass: np.ndarray | None = None
+    #: (n, P, R) [mol m-2] of non-sea-salt pSO4 only: the sea-salt sulfate each row's
+    #: contribution had taken off (0.0605 pNa at the row's Vd), so that ``contrib +
+    #: seasalt`` is the total pSO4's part; the Monte Carlo draws the pSO4 and the pNa
+    #: analyses apart (:func:`workbench.analysis.uncertainty.nss_dry_draws`). None:
+    #: not a non-sea-salt component.
+    seasalt: np.ndarray | None = None
 
 
 @dataclass
@@ -183,7 +189,21 @@ def _row_classes(receptors, start, end, history):
     return out
 
 
-def _dry_layers(rows, periods, sites, n_r, air, histories=None):
+def _seasalt_rows(pr, r, air):
+    """(n, P, R) sea-salt sulfate deposition each nss pSO4 row had taken off [mol m-2]:
+    its contribution over its nss concentration (the row's air volume at its Vd) times
+    0.0605 pNa (Keene et al. 1986, :func:`workbench.wet.seasalt.seawater_ratio`); 0 where
+    pNa is missing (total pSO4 used) or the nss concentration is 0."""
+    from ..wet.seasalt import seawater_ratio
+    na = np.asarray(air["pNa"].values, float)[r["air_row"]]
+    conc = np.asarray(r["conc"], float)
+    ok = np.isfinite(na) & np.isfinite(conc) & (conc != 0)
+    per_c = np.where(ok, seawater_ratio("SO4", "Na") * np.where(ok, na, 0.0)
+                     / np.where(ok, conc, 1.0), 0.0)
+    return pr * per_c[:, None, None]
+
+
+def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False):
     from ..drycomponents import row_filled_deposition_share
     from ..drypairs import component_rows
     from ..dryflux import period_axes, share_to_periods
@@ -203,6 +223,7 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None):
             continue
         _, c_fill = rows["vd_cum"][sp]          # the Vd of `sp` in every part
         per_row, si, filled, cens, member, sampler, start, end = ([] for _ in range(8))
+        ss = [] if (nss and sp == "pSO4" and "pNa" in air) else None
         samplers = air["sampler_id"].values.astype(str)
         for name, r, factor in parts:
             *_, pr = share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"],
@@ -210,6 +231,8 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None):
                                       r["end"], per_row=True, cn=r.get("cn"))
             a, b = r["a"], r["b"]
             per_row.append(factor * np.where(np.isfinite(pr), pr, 0.0))
+            if ss is not None:
+                ss.append(_seasalt_rows(per_row[-1], r, air))
             si.append(r["site_index"])
             # the share of the deposition that the hours not modelled (filled, or
             # without any Vd: the budget's reckoning of them) carry, per sampling period
@@ -224,6 +247,7 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None):
             start.append(np.asarray(r["start"]))
             end.append(np.asarray(r["end"]))
         per_row, si = np.concatenate(per_row), np.concatenate(si)
+        ss = None if ss is None else np.concatenate(ss)
         filled, cens = np.concatenate(filled), np.concatenate(cens)
         member, sampler = np.concatenate(member), np.concatenate(sampler)
         start = np.concatenate(start).astype("datetime64[ns]")
@@ -241,7 +265,8 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None):
                                    sample_identity(sampler[sel], start[sel], member[sel]),
                                    start[sel], end[sel],
                                    _row_classes(recs, start[sel], end[sel],
-                                                (histories or {}).get(s)))
+                                                (histories or {}).get(s)),
+                                   None if ss is None else ss[sel][:, :, :n_r])
     return out
 
 
@@ -324,7 +349,8 @@ def linear_layer(result, study, which: str = "budget", overrides=None) -> Linear
     from ..surfacehistory import land_use_history
     catalogue = study.catalogue(overrides)
     histories = {sid: (own, ch) for sid, own, ch in land_use_history(catalogue)}
-    dry = _dry_layers(rows, periods, sites, ds.sizes["receptor"], study.inputs.air, histories)
+    dry = _dry_layers(rows, periods, sites, ds.sizes["receptor"], study.inputs.air, histories,
+                      nss=bud_opt.sulfate_basis == "nss")
     wet = study.wet(wet_opt, periods) if result.screened is not None else None
     tracer = wet_opt.seasalt_tracer
     nss = (bud_opt.sulfate_basis == "nss" and wet is not None and "dep_nssSO4" in wet)

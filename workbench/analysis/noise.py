@@ -60,6 +60,9 @@ class SiteNoise:
     #: (D, Y, 1) the site's own Vd factor [1], already in ``vd`` and ``vd_class`` (None:
     #: ``vd_site_gsd`` 1)
     vd_site: np.ndarray | None = None
+    #: species -> (D, n_rows) errors of the pNa analysis behind the sea-salt sulfate of a
+    #: non-sea-salt pSO4 row (``DryPieces.seasalt``), drawn apart from the pSO4 [1]
+    air_seasalt: dict = field(default_factory=dict)
 
 
 def _normal_factor(rng, sd, shape):
@@ -398,7 +401,7 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
                                             sd_lab, d, n_years, year0)
                 pconc[ion] *= sample_lab_bias(lab_precip[ion], lab_changes, wet.start,
                                               wet.end, year0, n_years, cens)
-    air, vd_fill = {}, {}
+    air, vd_fill, air_ss = {}, {}, {}
     for sp in DRY_SPECIES:
         if sp not in layer_site.dry:
             continue
@@ -427,6 +430,20 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
                     air[sp] *= b
                 else:
                     air[sp][:, sel] *= b
+        if rows.seasalt is not None:
+            # the sea-salt sulfate of a non-sea-salt pSO4 row comes from the pNa analysis
+            # of the same sample: an error of its own (stream "air" of member pNa), and
+            # the pNa laboratory's bias
+            ss_id = [("pNa",) + tuple(i[1:]) if i else ("pNa",) for i in rows.ident]
+            air_ss[sp] = keyed_normal_factor(key, "air", ss_id, opt.air_rel_sd, d)
+            if sd_lab > 0 and rows.start is not None:
+                if "pNa" not in lab_air:
+                    lab_air["pNa"] = _lab_bias(opt, key, run_key, "air", "pNa",
+                                               ANALYTE.get("pNa", "pNa"), lab_changes,
+                                               air_ids, sd_lab, d, n_years, year0)
+                air_ss[sp] *= sample_lab_bias(lab_air["pNa"], lab_changes, rows.start,
+                                              rows.end, year0, n_years,
+                                              np.zeros(len(rows.ident), bool))
         # a fill error acts on the hours not modelled only: none drawn without them
         sd_fill = np.where((rows.filled > 0).any(axis=(1, 2)), opt.vd_fill_rel_sd, 0.0)
         vd_fill[sp] = keyed_normal_factor(key, f"vd_fill:{sp}", rows.ident, sd_fill, d) - 1.0
@@ -446,4 +463,4 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
         bulk = _site_factor(opt, key, BULK_FACTOR, d, n_years, year0,
                             lambda r: _normal_factor(r, sd_bulk, (d,)))
     return SiteNoise(vd, gauge, depth, pconc, air, vd_fill, pwm_fill, gauge_periods, vd_class,
-                     lab_precip, lab_air, bulk, vd_site)
+                     lab_precip, lab_air, bulk, vd_site, air_ss)

@@ -286,6 +286,59 @@ def dry_ratio(pieces, vd_factor, air, vd_fill, class_factor=None):
     return out.transpose(0, 2, 1)
 
 
+def nss_dry_draws(pieces, vd_factor, air, air_seasalt, vd_fill, class_factor=None):
+    """Draws of a non-sea-salt pSO4 component: (D, R, P) [mol m-2], not ratios.
+
+    Each row's contribution :math:`A_n = T_n - S_n` is its total pSO4's part
+    :math:`T_n` less the sea-salt sulfate :math:`S_n` from its pNa
+    (``pieces.seasalt``); the two analyses err apart, so a draw is
+
+    .. math:: D = F\\, \\max\\Big(0, \\sum_n (\\delta^{SO4}_n T_n -
+              \\delta^{Na}_n S_n)(1 + \\phi_n \\eta_n)\\Big)
+
+    with the Vd factor :math:`F` (of the receptor's class where ``class_factor``), the
+    per-sample errors :math:`\\delta` and the fill error :math:`\\eta` on the share
+    :math:`\\phi` of the row's deposition its filled hours carry; the sum is clipped at 0
+    as the budget clips the period's sum (docs/budget.md).  A period clipped in the
+    budget thus gets draws that are 0 where the drawn sum stays below 0 and positive
+    where the errors of pSO4 and pNa could make it so (before, its draws were all 0; and
+    the error of the difference was taken as that of the nss value, too small where
+    pSO4 and its sea salt nearly cancel).
+
+    Parameters
+    ----------
+    pieces : DryPieces
+        With ``seasalt`` (n, P, R) [mol m-2].
+    vd_factor : ndarray (D, P)
+    air, air_seasalt : ndarray (D, n)
+        Errors of the pSO4 and pNa analyses of each row [1].
+    vd_fill : ndarray (D, n)
+    class_factor : dict, optional
+        Land-use class -> (D, P) Vd factor.
+    """
+    a, ss = pieces.contrib, pieces.seasalt
+    n, n_p, n_r = a.shape
+    t = a + ss
+    phi = pieces.filled
+
+    def raw(mask):                     # (D, P, R) the drawn sum of the rows in `mask`
+        m = mask[:, None, None]
+        tt, sa, aa = (t * m).reshape(n, -1), (ss * m).reshape(n, -1), (a * m).reshape(n, -1)
+        ph = phi.reshape(n, -1)
+        out = (aa.sum(0) + (air - 1.0) @ tt - (air_seasalt - 1.0) @ sa
+               + (air * vd_fill) @ (ph * tt) - (air_seasalt * vd_fill) @ (ph * sa))
+        return out.reshape(-1, n_p, n_r)
+    everything = np.ones(n, bool)
+    if not class_factor:
+        return (vd_factor[:, :, None] * np.maximum(raw(everything), 0.0)).transpose(0, 2, 1)
+    klass = pieces.klass.astype(str)
+    acc = np.zeros((air.shape[0], n_p, n_r))
+    for r in range(n_r):
+        for c in np.unique(klass[:, r]):
+            acc[:, :, r] += class_factor.get(c, vd_factor) * raw(klass[:, r] == c)[:, :, r]
+    return np.maximum(acc, 0.0).transpose(0, 2, 1)
+
+
 def wet_ratios(wet, pwm_point, filled, gauge, depth, pconc, pwm_fill, n_periods, wanted,
                tracer="Na", gauge_piece=None):
     """Draws of the wet deposition of each ion over the point: ion -> (D, P) [1].
@@ -376,6 +429,7 @@ def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int)
     yi = layer.period_year - year0
     ratio = np.ones((d, n_r, n_p, n_c))
     ls = layer.sites[site]
+    direct = {}
     for j, (_, path, sp) in enumerate(COMPONENTS):
         if path == "dry" and sp in ls.dry:
             k = DRY_SPECIES.index(sp)
@@ -383,6 +437,18 @@ def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int)
                   if noise.vd_class and ls.dry[sp].klass is not None else None)
             ratio[..., j] = dry_ratio(ls.dry[sp], noise.vd[:, yi, k], noise.air[sp],
                                       noise.vd_fill[sp], cf)
+            pc = ls.dry[sp]
+            if pc.seasalt is not None and sp in noise.air_seasalt:
+                # non-sea-salt pSO4: drawn as the difference of its two analyses and
+                # clipped at 0 as the budget's sum, where the point is that clipped sum
+                # (not where the budget set it otherwise, e.g. caught by a bulk collector)
+                lin = np.maximum(pc.contrib.sum(0).T, 0.0)                    # (R, P)
+                pt = point[..., j]
+                same = np.isfinite(pt) & np.isclose(pt, lin, rtol=1e-9, atol=1e-300)
+                if same.any():
+                    direct[j] = (nss_dry_draws(pc, noise.vd[:, yi, k], noise.air[sp],
+                                               noise.air_seasalt[sp], noise.vd_fill[sp], cf),
+                                 same)
     if ls.wet is not None:
         wanted = set(layer.wet_component.values())
         gauge, piece = noise.gauge[:, yi], None
@@ -399,7 +465,10 @@ def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int)
                     # the bulk samples' part takes the drawn bulk_wet_factor
                     r = r * (1.0 + b[None, :] * (noise.bulk[:, yi] - 1.0))
                 ratio[..., j] = r[:, None, :]
-    return point[None] * ratio
+    out = point[None] * ratio
+    for j, (drawn, same) in direct.items():
+        out[..., j] = np.where(same[None], drawn, out[..., j])
+    return out
 
 
 def _gauge_by_piece(ls, gauge_periods, yi, ds):

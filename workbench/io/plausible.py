@@ -22,6 +22,7 @@ import pandas as pd
 
 from .. import species as _species
 from ..constants import GAS_CONSTANT
+from ..units import UG_PER_KG
 
 #: Numbers that data systems and spreadsheets use for "no value" (common practice in
 #: station and laboratory data exchange; compared with the number as typed).
@@ -104,7 +105,7 @@ def as_ugm3(amount, kind: str, species: str) -> np.ndarray:
         [ug m-3]; a mixing ratio taken at 20 degC and 1013.25 hPa.
     """
     m = _species.get(species).molar_mass  # [kg mol-1]
-    return check_density(amount, kind) * m * 1e9
+    return check_density(amount, kind) * m * UG_PER_KG
 
 
 def thousandth_unit(unit: str | None) -> str:

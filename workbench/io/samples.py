@@ -16,7 +16,7 @@ from .. import flags as _flags
 from .. import species as _species
 from ..constants import GAS_CONSTANT
 from ..errors import InputError, suggest
-from ..units import Q_, convert_plain, parse_header, to_amount
+from ..units import MM_PER_M, Q_, convert_plain, parse_header, to_amount
 from . import plausible as _plausible
 from .common import (check_intervals, check_overlaps, check_sites, check_time_zones,
                      duplicate_rows, join_reasons, unit_error, unused_note)
@@ -316,7 +316,7 @@ def read_precipitation(path, catalogue, flag_map=None):
                 raise tab.error(f"negative {name.replace('_', ' ')}", row=i, column=name,
                                 value=tab.frame[name].iloc[i], expected="a value >= 0")
         with np.errstate(divide="ignore", invalid="ignore"):
-            sample = np.where(area > 0, vol / area * 1e3, np.nan)
+            sample = np.where(area > 0, vol / area * MM_PER_M, np.nan)
     else:
         sample = np.full(n, np.nan)
         parts.append(np.full(n, "no sample depth or volume column", object))

@@ -91,7 +91,17 @@ def _weighted(table, screened, weight_all, used, flat, n_flat, species):
 
 
 def _climatology(screened, opt, met, site_idx, n_site, species, gauge_prof):
-    """Multi-year PWM per site and season (and over the whole record) [mol m-3]."""
+    """Sums of the multi-year PWM per site and season, and of each sample's part of them.
+
+    Returns
+    -------
+    num, den : dict
+        species -> (site, season) sums :math:`\\sum w C` [mol m-3 mm] and
+        :math:`\\sum w` [mm] over the used samples of the whole record.
+    own_num, own_den : dict
+        species -> (sample, season) the same sums of each sample alone, to leave a
+        period's own samples out of its fill (:func:`_leave_out`).
+    """
     t0, t1 = screened.variables["start"].values.min(), screened.variables["end"].values.max()
     seasons = _periods.make_periods(t0, t1, "season")
     table = _split(screened, seasons, opt, met)
@@ -102,14 +112,81 @@ def _climatology(screened, opt, met, site_idx, n_site, species, gauge_prof):
         screened.variables["gauge_depth_used"].values.astype(float), gauge_prof, site_idx), 0.0)
     s_of = pd.Index(_periods.SEASON_NAMES).get_indexer(seasons["season"].values)
     shape = (n_site, _N_SEASONS)
+    n_samp = screened.sizes["sample"]
     flat = site_idx[i] * _N_SEASONS + s_of[table["period"].values]
-    pwm, num, den = _weighted(table, screened, weight, used, flat, n_site * _N_SEASONS, species)
-    by_season = {sp: pwm[sp].reshape(shape) for sp in species}
-    whole = {}
+    by_sample = i * _N_SEASONS + s_of[table["period"].values]
+    _, num, den = _weighted(table, screened, weight, used, flat, n_site * _N_SEASONS, species)
+    _, o_num, o_den = _weighted(table, screened, weight, used, by_sample, n_samp * _N_SEASONS,
+                                species)
+    return ({sp: num[sp].reshape(shape) for sp in species},
+            {sp: den[sp].reshape(shape) for sp in species},
+            {sp: o_num[sp].reshape(n_samp, _N_SEASONS) for sp in species},
+            {sp: o_den[sp].reshape(n_samp, _N_SEASONS) for sp in species})
+
+
+def _leave_out(clim, table, site_idx, cat, has_season, n_site, n_per, species):
+    """The seasonal fill of each (site, period) without the period's own samples [mol m-3].
+
+    The fill of a period estimates its PWM from other data: the used samples of the same
+    season in the record (the whole record for a year or a custom range), less every
+    sample that overlaps the period (a sample straddling its edge included), so that
+    none of the failed period's own chemistry enters its fill (docs/methods_wet.md
+    section 7).  NaN where nothing else is left.
+    """
+    num, den, o_num, o_den = clim
+    i = table["interval"].values
+    p = table["period"].values
+    # each (sample, period) once: a sample's pieces in a period are one row of the split
+    key = np.unique(i * n_per + p)
+    si, pi = key // n_per, key % n_per
+    flat = site_idx[si] * n_per + pi
+    sel = np.clip(cat[pi], 0, _N_SEASONS - 1)
+    out = {}
     for sp in species:
-        n_all, d_all = num[sp].reshape(shape).sum(1), den[sp].reshape(shape).sum(1)
-        whole[sp] = n_all / np.where(d_all > 0, d_all, np.nan)
-    return by_season, whole
+        own_n = np.where(has_season[pi], o_num[sp][si, sel], o_num[sp][si].sum(1))
+        own_d = np.where(has_season[pi], o_den[sp][si, sel], o_den[sp][si].sum(1))
+        own_n = group_sums(own_n, flat, n_site * n_per).reshape(n_site, n_per)
+        own_d = group_sums(own_d, flat, n_site * n_per).reshape(n_site, n_per)
+        all_n = np.where(has_season[None, :], num[sp][:, np.clip(cat, 0, _N_SEASONS - 1)],
+                         num[sp].sum(1)[:, None])
+        all_d = np.where(has_season[None, :], den[sp][:, np.clip(cat, 0, _N_SEASONS - 1)],
+                         den[sp].sum(1)[:, None])
+        rest_n, rest_d = all_n - own_n, all_d - own_d
+        # to rounding: nothing left once the own samples are taken out
+        left = rest_d > 1e-9 * np.maximum(all_d, 1.0)
+        out[sp] = np.where(left, rest_n / np.where(left, rest_d, 1.0), np.nan)
+    return out
+
+
+def _tracer_gaps(screened, table, weight, used, flat, shape, precip, ion, tracer, silent):
+    """Words naming the samples of each (site, period) whose `ion` is used without a value
+    of the sea-salt `tracer` ("" where none, or where `silent`).
+
+    The nss PWM subtracts the tracer's PWM over the samples that have it from the ion's
+    PWM over the samples that have the ion: a sample without the tracer is thereby given
+    the period's tracer PWM of its other samples (docs/methods_wet.md section 8).
+    """
+    i = table["interval"].values
+    c_ion = np.asarray(screened.variables[ion].values, float)[i]
+    c_tr = np.asarray(screened.variables[tracer].values, float)[i]
+    hit = used & np.isfinite(c_ion) & ~np.isfinite(c_tr) & (weight > 0)
+    out = np.full(shape, "", dtype=object)
+    if not hit.any():
+        return out
+    start = pd.DatetimeIndex(screened.variables["start"].values[i[hit]]).strftime("%Y-%m-%d")
+    line = (screened.variables["line"].values[i[hit]] if "line" in screened.variables
+            else np.full(int(hit.sum()), -1))
+    name = [f"{d} line {int(n)}" if n >= 0 else d for d, n in zip(start, line)]
+    g = pd.DataFrame({"flat": flat[hit], "name": name, "w": weight[hit]})
+    agg = g.groupby("flat").agg(names=("name", ", ".join), n=("name", "size"), w=("w", "sum"))
+    cells = agg.index.to_numpy()
+    s_, p_ = np.unravel_index(cells, shape)
+    pct = 100 * agg["w"].to_numpy() / np.where(precip[s_, p_] > 0, precip[s_, p_], np.nan)
+    words = [f"{tracer} missing in {n} sample{'s' if n > 1 else ''} with {ion} (from {names}; "
+             f"{p:.1f} % of the precipitation): sea salt taken as the period's {tracer} PWM "
+             "of its other samples" for n, names, p in zip(agg["n"], agg["names"], pct)]
+    out[s_, p_] = words
+    return np.where(silent, "", out).astype(object)
 
 
 def sample_weights(screened: xr.Dataset, ptable: pd.DataFrame, options: WetOptions,
@@ -206,7 +283,9 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         ``completeness_failed`` (bool), ``flagged_precip_fraction`` [1] (share of
         the precipitation carried by kept flagged samples);
         ``nss<X>_total_used`` and ``nss<X>_clipped`` (bool: no tracer, so the total
-        ion stands in; negative nss clipped at 0);
+        ion stands in; negative nss clipped at 0); ``nss<X>_tracer_estimated`` (text
+        naming the samples with the ion but no tracer, whose sea salt is the period's
+        tracer PWM of its other samples; "" where none);
         ``ion_valid_precip_fraction``, ``ion_n_valid``, ``ion_n_censored``,
         ``ion_filled`` (site, period, ion; the ion's PWM is the seasonal fill),
         ``ion_all_censored`` (every valid value of the ion below detection).
@@ -320,13 +399,13 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     ion_fill = {sp: np.zeros(shape, bool) for sp in species}     # the ion's PWM was filled
     fill_n = 0
     if opt.period_fill == "seasonal" and failed.any():
-        by_season, whole = _climatology(screened, opt, met, site_idx, n_site, species,
-                                        gauge_prof)
         cat = pd.Index(_periods.SEASON_NAMES).get_indexer(ptable["season"].values)
         has_season = ptable["kind"].isin(["month", "season"]).values & (cat >= 0)
+        loo = _leave_out(_climatology(screened, opt, met, site_idx, n_site, species,
+                                      gauge_prof),
+                         table, site_idx, cat, has_season, n_site, n_per, species)
         for sp in species:
-            clim = np.where(has_season[None, :], by_season[sp][:, np.clip(cat, 0, _N_SEASONS - 1)],
-                            whole[sp][:, None])
+            clim = loo[sp]
             # missing chemistry is filled, missing rain is not: a period whose gauge
             # record fails keeps its own PWM and stays flagged (section 7)
             take = failed & wet & np.isfinite(clim) & ~gauge_short
@@ -387,6 +466,10 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     var("precipitation_valid", precip_valid, "mm", "precipitation depth with valid chemistry")
     tracer = opt.seasalt_tracer
     nss, nss_state = {}, {}
+
+    def filled_ok(ion, tr):
+        # a filled PWM does not rest on the period's own samples: nothing to say there
+        return ~(ion_fill.get(ion, np.zeros(shape, bool)) | ion_fill.get(tr, np.zeros(shape, bool)))
     if tracer in pwm:
         for ion in seasalt.corrected_ions(tracer, species):
             raw = seasalt.non_seasalt(pwm[ion], pwm[tracer], ion, tracer)
@@ -395,7 +478,10 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
             no_tracer = np.isfinite(pwm[ion]) & ~np.isfinite(pwm[tracer])
             clipped = np.isfinite(raw) & (raw < 0)
             nss[f"nss{ion}"] = (np.where(no_tracer, pwm[ion], np.where(clipped, 0.0, raw)), ion)
-            nss_state[f"nss{ion}"] = (no_tracer, clipped)
+            nss_state[f"nss{ion}"] = (no_tracer, clipped,
+                                      _tracer_gaps(screened, table, weight, used, flat, shape,
+                                                   precip, ion, tracer, no_tracer | ~filled_ok(
+                                                       ion, tracer)))
     for sp in species:
         label = "free acidity H+" if sp == "H" else sp
         var(f"pwm_{sp}", pwm[sp], "mol m-3", f"precipitation-weighted mean of {label}")
@@ -404,7 +490,9 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         var(f"pwm_{name}", values, "mol m-3",
             f"precipitation-weighted mean of non-sea-salt {ion} (tracer {tracer})",
             seasalt_tracer=tracer)
-        no_tracer, clipped = nss_state[name]
+        no_tracer, clipped, gaps = nss_state[name]
+        var(f"{name}_tracer_estimated", gaps, "", f"samples of the period with {ion} but "
+            f"no {tracer}: their sea salt is the period's {tracer} PWM of its other samples")
         var(f"{name}_total_used", no_tracer, "", f"no {tracer} in the period: total {ion} "
             f"used in place of non-sea-salt {ion}")
         var(f"{name}_clipped", clipped, "", f"sea-salt {ion} from {tracer} exceeds the "
