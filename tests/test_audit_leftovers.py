@@ -1,4 +1,4 @@
-"""Leftovers of the wet, budget and dry-output audit (2026-12, branch qc-audit).
+"""Leftovers of the wet, budget and dry-output audit (2026-12).
 
 Every expected value is worked out here by hand (numpy or arithmetic) from a named
 source, never by calling the code under test for it.  Sites, dates and concentrations

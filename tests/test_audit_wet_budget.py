@@ -41,7 +41,7 @@ def _filled_january():
     time coverage is 28/31 = 0.903 (passes 0.90) but only 5 of its 25 mm have valid
     chemistry (0.20 < 0.70): it fails, and period_fill = "seasonal" gives it the winter
     PWM of the record's used samples other than its own (leave-one-out, 2026-12
-    qc-audit), (30 x 20 + 10 x 80) / 40 = 35 umol/L."""
+    2026-12 audit), (30 x 20 + 10 x 80) / 40 = 35 umol/L."""
     rows = [dict(start="2020-12-01", end="2021-01-01", gauge_depth=30.0, SO4=20, Na=5),
             dict(start="2021-01-01", end="2021-01-29", gauge_depth=5.0, SO4=50, Na=5),
             dict(start="2021-01-29", end="2021-02-01", gauge_depth=20.0, SO4=500, Na=5,

@@ -165,7 +165,7 @@ def test_the_period_is_the_sum_of_the_runs_of_each_collectors_samples(tmp_path):
 
 
 def test_a_sample_holding_the_change_day_is_split_by_its_met_rain_with_straddle_met(tmp_path):
-    """straddle = "met" (qc-audit; checked by hand only before): the change dated
+    """straddle = "met" (2026-12 audit; checked by hand only before): the change dated
     2021-06-10 inside the second sample (06-08 00:00 to 06-15 09:00) splits it by its
     hourly met precipitation, not its hours. Invented met: 3 h of 1 mm ending 06-08
     01:00-03:00 (wet-only collector) and 4 h of 0.5 mm ending 06-12 01:00-04:00 (bulk),

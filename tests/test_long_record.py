@@ -99,7 +99,7 @@ def test_gauge_gap_year_is_filled_and_says_so(long_run):
     assert "gauge depths filled" in wet.loc["2012", "note"]
     assert wet.loc["2011", "status"] == "complete"
     # the record measures pSO4 without pNa: on the nss basis its dry pSO4 is total pSO4,
-    # flagged since the 2026-12 qc-audit (docs/budget.md), which makes the S total
+    # flagged since the 2026-12 audit (docs/budget.md), which makes the S total
     # 'flagged' (passing); the N total shows the fill
     assert _total(t).loc["2012", "status"] == "flagged"
     dry_so4 = t[(t["pathway"] == "dry") & (t["species"] == "pSO4") & (t["receptor"] == "grass")

@@ -383,7 +383,7 @@ def test_run_folder_of_a_changed_site_accounts_rows_and_verifies(record, runs, t
     # the class under the wind mast per hour (stage mast_in_force), read back: a CF flag
     # variable; with met_land_use = "grass" given ("history") grass in every hour, without
     # it ("m_history_c") the forest until the felling at 2014-04-01 00:00 UTC (the hour
-    # ending then is the forest's last), the grass after (qc-audit; before, velocities.nc
+    # ending then is the forest's last), the grass after (2026-12 audit; before, velocities.nc
     # had no such variable)
     mast = v["mast_land_use"].sel(site="haugh")
     meanings = v["mast_land_use"].attrs["flag_meanings"].split()

@@ -525,7 +525,7 @@ def test_a_failed_month_filled_with_the_seasonal_pwm_of_the_record():
     # contaminated 5 mm sample (coverage 19/31 < 0.9, gauge record whole); Feb 2021: one
     # sample, 10 mm, SO4 80 umol/L. period_fill = "seasonal": January takes the winter
     # PWM of the record's used samples other than its own (leave-one-out, 2026-12
-    # qc-audit; before: 40 umol/L with its own 1-20 Jan sample), (30 x 20 + 10 x 80) / 40
+    # 2026-12 audit; before: 40 umol/L with its own 1-20 Jan sample), (30 x 20 + 10 x 80) / 40
     # = 35 umol/L, times its own 25 mm.
     rows = [dict(start="2020-12-01", end="2021-01-01", gauge_depth=30.0, SO4=20),
             dict(start="2021-01-01", end="2021-01-20", gauge_depth=20.0, SO4=50),
