@@ -434,10 +434,38 @@ def keep_state(widget: go.FigureWidget) -> None:
     widget._widget_data = data
 
 
+class OpenedWhole(go.FigureWidget):
+    """A FigureWidget whose comm opens with its figure in the opening state.
+
+    plotly 7.1's FigureWidget opens its comm (ipywidgets opens it at the end of the
+    widget's own constructor) with an empty ``_widget_data`` and ``_widget_layout`` and
+    sends the figure a moment later as an update.  anywidget 0.11's front end holds
+    every message to a model until the model's module is loaded, and gives that 2 s;
+    plotly's module is 5 MB per figure, and on a loaded machine (the full demo network,
+    three figures) it took longer: the held updates were then dropped without a console
+    error, and the figures drew as empty default axes (x -1..6, y -1..4, no title).
+    Here the comm opens after plotly has set the figure, so the model starts with it.
+    """
+
+    def __init__(self, *args, **kwargs):
+        self._wb_opening = True
+        try:
+            super().__init__(*args, **kwargs)
+        finally:
+            self._wb_opening = False
+        self.open()
+
+    def open(self):
+        if getattr(self, "_wb_opening", False):
+            return
+        super().open()
+
+
 def figure_widget(fig) -> go.FigureWidget:
-    """A FigureWidget built from a figure (layout given at construction); it remembers
-    what it shows so that :func:`refresh` sends only changes."""
-    w = go.FigureWidget(fig)
+    """A FigureWidget built from a figure (layout given at construction) whose comm
+    opens with the whole figure (:class:`OpenedWhole`); it remembers what it shows so
+    that :func:`refresh` sends only changes."""
+    w = OpenedWhole(fig)
     _remember(w, _as_spec(fig))
     return w
 
