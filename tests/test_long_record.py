@@ -98,14 +98,14 @@ def test_gauge_gap_year_is_filled_and_says_so(long_run):
     assert wet.loc["2012", "status"] == "filled"
     assert "gauge depths filled" in wet.loc["2012", "note"]
     assert wet.loc["2011", "status"] == "complete"
-    # the record measures pSO4 without pNa: on the nss basis its dry pSO4 is total pSO4,
-    # flagged since the 2026-12 audit (docs/budget.md), which makes the S total
-    # 'flagged' (passing); the N total shows the fill
-    assert _total(t).loc["2012", "status"] == "flagged"
+    assert _total(t).loc["2012", "status"] == "filled"
+    # the record measures pSO4 without pNa: its dry pSO4 is total pSO4 on one basis over
+    # the whole record, said in the note, not flagged (docs/budget.md; flagged in every
+    # year, it left the site without an S trend)
     dry_so4 = t[(t["pathway"] == "dry") & (t["species"] == "pSO4") & (t["receptor"] == "grass")
                 ].set_index("period")
-    assert "pNa missing" in dry_so4.loc["2012", "note"]
-    assert _total(t, "N").loc["2012", "status"] in ("filled", "partial")
+    assert dry_so4.loc["2012", "note"].count("no pNa measured at the site: total pSO4") == 1
+    assert dry_so4.loc["2012", "status"] == "complete"
 
 
 def test_gappy_years_are_not_complete(long_run):

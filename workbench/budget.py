@@ -466,16 +466,21 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             comp_note[..., j] = np.where(neg, join_notes(
                 comp_note[..., j], "sea-salt sulfate from pNa exceeds the measured pSO4: "
                 "non-sea-salt pSO4 clipped at 0"), comp_note[..., j])
-        # weeks of pSO4 without pNa: their total pSO4 stands in (sea salt included),
-        # flagged with the weeks named, as the wet chain's "total SO4 used" (the period
-        # still passes; docs/budget.md, "Components and units")
+        # weeks of pSO4 without pNa among weeks with it: their total pSO4 stands in
+        # (sea salt included), flagged with the weeks named (the period still passes);
+        # a site with no pNa at all: said, not flagged, one basis over its whole record
+        # (docs/budget.md, "Components and units")
         if "pSO4_total_used" in dr.variables:
+            from .drycomponents import NO_PNA_AT_SITE
             words = np.asarray(dr.variables["pSO4_total_used"].values, object)
             said = np.array([isinstance(x, str) and x != "" for x in words.ravel()],
                             bool).reshape(words.shape)[:, None, :] & np.ones((1, n_r, 1), bool)
             said &= (status[..., j] != "missing") & ~np.char.startswith(
                 comp_note[..., j].astype(str), "caught by the bulk collector")
-            status[..., j] = np.where(said & np.isin(status[..., j], ("complete", "filled")),
+            whole = np.array([isinstance(x, str) and x.startswith(NO_PNA_AT_SITE)
+                              for x in words.ravel()], bool).reshape(words.shape)[:, None, :]
+            status[..., j] = np.where(said & ~whole
+                                      & np.isin(status[..., j], ("complete", "filled")),
                                       "flagged", status[..., j])
             comp_note[..., j] = np.where(said, join_notes(
                 comp_note[..., j], (words[:, None, :] * np.ones((1, n_r, 1), object)).astype(str)),

@@ -132,10 +132,17 @@ def _nss_particles(air: xr.Dataset, basis: str) -> xr.Dataset:
     return air
 
 
+#: The start of the note of a site that measures no pNa at all: its total pSO4 stands
+#: for the non-sea-salt part on one basis over the whole record, said but not flagged
+#: (the budget flags only weeks without pNa among weeks with it; docs/budget.md).
+NO_PNA_AT_SITE = "no pNa measured at the site"
+
+
 def total_used_notes(rows: dict, periods, sites) -> np.ndarray:
     """Words per (site, period) naming the pSO4 samples whose total pSO4 stands for its
     non-sea-salt part (no pNa that week: ``pSO4_total_used`` of :func:`_nss_particles`);
-    "" elsewhere.
+    "" elsewhere. A site none of whose pSO4 samples has a pNa gets one sentence
+    starting with :data:`NO_PNA_AT_SITE` instead of the list of its samples.
 
     Parameters
     ----------
@@ -164,11 +171,18 @@ def total_used_notes(rows: dict, periods, sites) -> np.ndarray:
     g = pd.DataFrame({"cell": si[k[kk]] * n_p + pp,
                       "name": pd.DatetimeIndex(t0[k[kk]]).strftime("%Y-%m-%d")})
     agg = g.groupby("cell")["name"].agg(list)
+    fl = np.asarray(flag, bool)
+    none_at = {s_: bool(fl[si == s_].all()) for s_ in np.unique(si)}
     for cell, names in agg.items():          # one entry per flagged (site, period) cell
         s_, p_ = divmod(int(cell), n_p)
         n_all = int((each[:, p_] & (si == s_)).sum())
-        out[s_, p_] = (f"pNa missing in {len(names)} of {n_all} pSO4 samples (from "
-                       f"{', '.join(names)}): total pSO4 used for them (sea salt included)")
+        if none_at.get(s_, False):
+            out[s_, p_] = (f"{NO_PNA_AT_SITE}: total pSO4 used in place of non-sea-salt "
+                           "pSO4 (sea salt included, an upper bound; small inland)")
+        else:
+            out[s_, p_] = (f"pNa missing in {len(names)} of {n_all} pSO4 samples (from "
+                           f"{', '.join(names)}): total pSO4 used for them (sea salt "
+                           "included)")
     return out
 
 
