@@ -25,8 +25,8 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .budgetstatus import (as_flag, bracket_outputs, bulk_caught_brackets, dry_status,
-                           join_notes, nh3_net_component, sampling_gap_note, wet_component,
+from .budgetstatus import (NO_PNA_AT_SITE, as_flag, bracket_outputs, bulk_caught_brackets,
+                           dry_status, join_notes, nh3_net_component, sampling_gap_note, wet_component,
                            wet_outputs)
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
@@ -471,7 +471,6 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
         # a site with no pNa at all: said, not flagged, one basis over its whole record
         # (docs/budget.md, "Components and units")
         if "pSO4_total_used" in dr.variables:
-            from .drycomponents import NO_PNA_AT_SITE
             words = np.asarray(dr.variables["pSO4_total_used"].values, object)
             said = np.array([isinstance(x, str) and x != "" for x in words.ravel()],
                             bool).reshape(words.shape)[:, None, :] & np.ones((1, n_r, 1), bool)

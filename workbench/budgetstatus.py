@@ -18,6 +18,12 @@ import xarray as xr
 
 from .wet.qa import exceeds, falls_short
 
+#: The start of the note of a site that measures no pNa at all: its total pSO4 stands
+#: for the non-sea-salt part on one basis over the whole record, said but not flagged
+#: (the budget flags only weeks without pNa among weeks with it; docs/budget.md;
+#: written by :func:`workbench.drycomponents.total_used_notes`).
+NO_PNA_AT_SITE = "no pNa measured at the site"
+
 
 def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
                 options):

@@ -19,7 +19,7 @@ import xarray as xr
 from . import graph as _graph
 from . import species as _species
 from .budget import COMPONENTS, PAIRS, BudgetError, BudgetOptions
-from .budgetstatus import bracket_velocities
+from .budgetstatus import NO_PNA_AT_SITE, bracket_velocities
 from .dryflux import (_count_cumulative, _inputs_for, deposition_rows, fill_diurnal,
                       no_hour_inside, period_axes, period_mean, share_to_periods)
 from .drypairs import apply_split, bracket_variables, combined_notes, split_pairs
@@ -130,12 +130,6 @@ def _nss_particles(air: xr.Dataset, basis: str) -> xr.Dataset:
     air["pSO4"].attrs["long_name"] = "particulate non-sea-salt sulfate (Keene et al. 1986)"
     air["pSO4_total_used"] = (air["pSO4"].dims, has_so4 & ~np.isfinite(na) & ~na_cens)
     return air
-
-
-#: The start of the note of a site that measures no pNa at all: its total pSO4 stands
-#: for the non-sea-salt part on one basis over the whole record, said but not flagged
-#: (the budget flags only weeks without pNa among weeks with it; docs/budget.md).
-NO_PNA_AT_SITE = "no pNa measured at the site"
 
 
 def total_used_notes(rows: dict, periods, sites) -> np.ndarray:

@@ -97,8 +97,8 @@ def best_run(x: np.ndarray, min_run: int = MIN_RUN):
     (a, b) or None
         The run is ``x[a:b]``; None when `x` is too short.
 
-    >>> best_run(np.r_[np.zeros(10), np.ones(7), np.zeros(10)])
-    (10, 17)
+    >>> best_run(np.r_[np.zeros(10), np.ones(12), np.zeros(10)])
+    (10, 22)
     """
     n = len(x)
     if n < 2 * min_run:
