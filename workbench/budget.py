@@ -26,8 +26,8 @@ import pandas as pd
 import xarray as xr
 
 from .budgetstatus import (NO_PNA_AT_SITE, as_flag, bracket_outputs, bulk_caught_brackets,
-                           dry_status, join_notes, nh3_net_component, sampling_gap_note, wet_component,
-                           wet_outputs)
+                           dry_status, join_notes, nh3_net_component, sampling_gap_note,
+                           wet_component, wet_outputs)
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
 from .surfacehistory import collector_shares, describe, period_notes
