@@ -68,6 +68,8 @@ def test_a_year_of_ppb_under_a_ug_header_is_located(tmp_path, demo_cat):
     named = set(range(a, b + 1))
     # the run named is the slipped one, give or take a sample at an edge
     assert len(named & set(changed)) >= 50 and len(named - set(changed)) <= 2, (a, b)
+    # SO2 64.066 g/mol (IUPAC weights, from memory) over the ideal-gas molar volume
+    # 24.055 L/mol at 20 degC, 1013.25 hPa (R T / p, common practice): 2.663
     assert "1 ppb = 2.663 ug/m3" in note
     assert "they look like ppb" in note
     cell = text.splitlines()[a - 1].split(",")[HEAD.index("SO2 [ug/m3]")]

@@ -21,6 +21,7 @@ import numpy as np
 import pandas as pd
 
 from ..constants import ZERO_CELSIUS
+from ..units import convert_plain
 
 #: Smallest excess of a day's mean over the median of the days around it [K] (20 K: a
 #: daily mean that far above a four-month median is a rare warm spell; a degF day at a
@@ -83,8 +84,9 @@ def fahrenheit_days(temperature_k, codes, t) -> np.ndarray:
            .rolling(f"{WINDOW_DAYS}D", center=True, min_periods=WINDOW_MIN_DAYS).median())
     daily["ref"] = ref.to_numpy()
     d, r = daily["mean"].to_numpy(), daily["ref"].to_numpy()
+    as_f = convert_plain(d, "degF", "degC")                   # the day read as degF
     with np.errstate(invalid="ignore"):
-        bad = ((d - r >= EXCESS_MIN) & (np.abs((d - 32.0) / 1.8 - r) <= MATCH_K)
+        bad = ((d - r >= EXCESS_MIN) & (np.abs(as_f - r) <= MATCH_K)
                & (r >= COLDEST_REFERENCE - ZERO_CELSIUS))
     bad &= _edged(daily, bad)
     hit = daily.loc[bad, ["site", "day"]]
