@@ -191,8 +191,10 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
     y : ndarray (n, S, R, P, Q)
         Outputs of :data:`OUTPUTS` [mol m-2; eq ha-1 for the acidity].
     coords : dict
-        ``site``, ``receptor``, ``period`` labels, and ``data``: :func:`data_notes` of
-        the budget.
+        ``site``, ``receptor``, ``period`` labels, ``data``: :func:`data_notes` of the
+        budget, and ``pairs``: the (site, receptor) pairs of the budget's rows (each
+        site's own surfaces; the grid of the arrays holds every receptor of the network
+        at every site).
     """
     names = list(options.factors)
     engine = [i for i, nm in enumerate(names) if factor_kind(nm) != "linear"]
@@ -215,6 +217,8 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
                         np.nan)
             # what the budget lacks (no engine factor changes which data a site has)
             coords["data"] = data_notes(ds)
+            table = res.table
+            coords["pairs"] = set(zip(table["site"].astype(str), table["receptor"].astype(str)))
         rows = np.asarray(rows)
         values = {names[i]: x[rows, i] for i in linear}
         for s in range(len(coords["site"])):
@@ -399,13 +403,19 @@ def row_note(name, element, quantity, data) -> str:
 
 def _cells(coords, options):
     """Each (site, receptor, period) asked for by `options` and each output of
-    :data:`OUTPUTS`: yields ((site, receptor, period), (s, r, p, q) indices, output)."""
+    :data:`OUTPUTS`: yields ((site, receptor, period), (s, r, p, q) indices, output).
+    Only a site's own surfaces (``coords["pairs"]``, the budget's rows): the arrays hold
+    every receptor of the network at every site, and a surface the site does not have
+    has no deposition velocity (its rows said "check the met record", a false lead)."""
     sites, recs, pers = coords["site"], coords["receptor"], coords["period"]
+    pairs = coords.get("pairs")
     for s in range(len(sites)):
         if options.sites and sites[s] not in options.sites:
             continue
         for r in range(len(recs)):
             if options.receptors and recs[r] not in options.receptors:
+                continue
+            if pairs is not None and (sites[s], recs[r]) not in pairs:
                 continue
             for p in range(len(pers)):
                 for q, out in enumerate(OUTPUTS):

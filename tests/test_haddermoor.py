@@ -1,0 +1,84 @@
+"""What a new user met on the invented Haddermoor network (tests/haddermoor_net.py): a
+coastal grass site with sea salt beside an inland farm with hourly air and no pNa.
+
+Each test failed on the code before its fix (dd2632a)."""
+import warnings
+
+import pandas as pd
+import pytest
+
+from haddermoor_net import make_haddermoor
+
+
+@pytest.fixture(scope="module")
+def haddermoor(tmp_path_factory):
+    """(scenario path, budget.csv as a frame, study) of one run of the network."""
+    from workbench.cli import run_scenario
+    scenario = make_haddermoor(tmp_path_factory.mktemp("haddermoor"))
+    out = scenario.parent / "run"
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        _, _, study = run_scenario(scenario, out, quiet=True)
+    return scenario, pd.read_csv(out / "budget.csv", dtype={"period": str}), study
+
+
+def test_split_notes_keeps_a_parenthesis_whole():
+    from workbench.budgetstatus import split_notes
+    assert split_notes("x: a (b; c); d") == ["x: a (b; c)", "d"]
+    assert split_notes("a; b") == ["a", "b"]
+    assert split_notes("a (b) c; d (e; f; g)") == ["a (b) c", "d (e; f; g)"]
+    assert split_notes(float("nan")) == ["nan"] and split_notes("") == []
+
+
+def test_sum_and_span_notes_keep_their_parentheses_whole(haddermoor):
+    """The notes of the pSO4 without pNa ("(sea salt included, an upper bound; small
+    inland)") and of a sample whose -999 sodium was masked ("(from ... line 4; 25.5 % of
+    the precipitation)") hold "; " inside a parenthesis.  Gathering them on the sum rows
+    and the whole-span rows cut them there: "an upper bound; pSO4: small inland)" on a
+    sum row, "an upper bound; every year used: pSO4: small inland)" on a span row."""
+    _, b, _ = haddermoor
+    notes = b["note"].fillna("")
+    assert not notes.str.contains(r"; (?:every year used: )?(?:\d{4} )*pSO4: small inland").any()
+    assert not notes.str.contains(r"line 4; (?:\d{4}: )?SO4: ").any()
+    # the whole-span row gathers the yearly notes part by part (workbench.tables); the
+    # network's eight weeks make no span, so its yearly rows are given here
+    from workbench.tables import _notes_by_year
+    sums_note = pso4 = ("pSO4: no pNa measured at the site: total pSO4 used in place of "
+                        "non-sea-salt pSO4 (sea salt included, an upper bound; small inland)")
+    years = pd.DataFrame({"site": "tillby", "receptor": "crops", "year": [2021, 2022, 2023],
+                          "note": [pso4, pso4 + "; SO4: 3 flagged samples kept (5 %)", pso4]})
+    span = _notes_by_year(years, ["site", "receptor"]).loc[("tillby", "crops")]
+    assert span == ("every year used: " + pso4 + "; 2022: SO4: 3 flagged samples kept (5 %)")
+    sums = b[(b["site"] == "tillby") & (b["species"] == "all") & (b["pathway"] == "dry")
+             & (b["element"] == "S") & (b["period"] != "span")]
+    assert len(sums) and sums["note"].str.contains(
+        sums_note, regex=False).all()
+    wet = b[(b["site"] == "saltcove") & (b["species"] == "all") & (b["pathway"] == "wet")
+            & (b["element"] == "S") & (b["period"] == "2021-01")]
+    assert "Na missing in 1 sample with SO4 (from 2021-01-19 line 4; " in wet["note"].iloc[0]
+    # every part of every note has its parentheses closed (common practice of a list)
+    from workbench.budgetstatus import split_notes
+    for text in notes[notes != ""]:
+        for part in split_notes(text):
+            assert part.count("(") == part.count(")"), (text, part)
+
+
+def test_sensitivity_rows_only_for_each_sites_own_surfaces(haddermoor):
+    """The engine's arrays hold every receptor of the network at every site; the tables
+    of `workbench sensitivity` listed saltcove's crops and deciduous_forest (surfaces it
+    does not have) with "no deposition velocity for any hour of the period (check the met
+    record ...)", a false lead."""
+    from workbench.analysis import sensitivity as S
+    from workbench.scenario import load_scenario
+    scenario, b, study = haddermoor
+    sc = load_scenario(scenario)
+    base = {"wet": sc.options["wet"], "dry": sc.options["dry"], "budget": sc.options["budget"],
+            "fixed_velocity": sc.fixed_velocity}
+    kw = {"resolution": "month", "start": "2021-01-01", "end": "2021-03-01"}
+    opt = S.SensitivityOptions(factors={"vd_SO2": (0.5, 1.5), "gauge_catch": (0.9, 1.1)})
+    torn = S.tornado(study, base, opt, kw)
+    own = {("saltcove", "grass"), ("tillby", "crops"), ("tillby", "deciduous_forest")}
+    assert set(zip(torn["site"], torn["receptor"])) == own
+    assert not torn["note"].fillna("").str.contains("check the met record").any()
+    frame = S.sobol(study, base, S.SensitivityOptions(samples=8, factors=opt.factors), kw)
+    assert set(zip(frame["site"], frame["receptor"])) <= own
