@@ -82,3 +82,49 @@ def test_sensitivity_rows_only_for_each_sites_own_surfaces(haddermoor):
     assert not torn["note"].fillna("").str.contains("check the met record").any()
     frame = S.sobol(study, base, S.SensitivityOptions(samples=8, factors=opt.factors), kw)
     assert set(zip(frame["site"], frame["receptor"])) <= own
+
+
+@pytest.fixture
+def shell():
+    from IPython.core.interactiveshell import InteractiveShell
+
+    from workbench.ui.controls import short_errors
+    sh = InteractiveShell.instance()
+    assert short_errors()
+    yield sh
+    sh.set_custom_exc((), None)
+    InteractiveShell.clear_instance()
+
+
+def test_a_notebook_site_of_another_network_is_one_line(haddermoor, shell, capsys):
+    """notebooks/critical_loads.ipynb opens with SITE = "ridge" (the demo's): pointed at
+    this network's scenario, ipywidgets raised a TraitError traceback ("Invalid
+    selection: value not found") and the next cell a NameError."""
+    scenario, _, _ = haddermoor
+    cell = (f"SCENARIO = {str(scenario)!r}\nSITE = 'ridge'\n"
+            "from workbench.ui.apps_analysis import CriticalLoadsExplorer\n"
+            "app = CriticalLoadsExplorer.from_scenario(SCENARIO, site=SITE)\napp\n")
+    shell.run_cell(cell)
+    out = capsys.readouterr().out
+    assert (f"ScenarioError: {scenario}: SITE (the notebook's first cell, or the app's site) "
+            "is not a site of this scenario: got 'ridge', expected one of saltcove, tillby, "
+            "or None for the first site with data") in out, out
+    assert "Traceback" not in out and "TraitError" not in out
+    shell.run_cell("print(app.statement)")
+    out = capsys.readouterr().out
+    assert "Nothing to show: 'app' was not made" in out and "NameError" not in out
+
+
+@pytest.mark.parametrize("app", ["SiteExplorer", "SensitivityExplorer", "SobolExplorer"])
+def test_every_app_names_a_site_it_does_not_have(haddermoor, app):
+    import workbench.ui.app_sobol as sobol_module
+    import workbench.ui.apps as apps
+    from workbench.errors import ScenarioError
+    from workbench.ui.session import Session
+    scenario, _, _ = haddermoor
+    with pytest.raises(ScenarioError, match=r"got 'Tillby', expected one of saltcove, tillby "
+                                            r"\(did you mean 'tillby'\?\)"):
+        if app == "SobolExplorer":
+            sobol_module.SobolExplorer(Session.open(scenario), site="Tillby", run=False)
+        else:
+            getattr(apps, app).from_scenario(scenario, site="Tillby")
