@@ -65,8 +65,8 @@ PLACES = {"saltcove": (56.10, -4.90), "tillby": (55.90, -2.60)}
 START, WEEKS = pd.Timestamp("2021-01-05T09:00"), 8
 
 
-def _met(rng):
-    t = pd.date_range(START - pd.Timedelta("8h"), periods=24 * 7 * WEEKS + 24, freq="h")
+def _met(rng, start, weeks):
+    t = pd.date_range(start - pd.Timedelta("8h"), periods=24 * 7 * weeks + 24, freq="h")
     frames = []
     for site, (lat, lon) in PLACES.items():
         n = len(t)
@@ -83,13 +83,13 @@ def _met(rng):
     return pd.concat(frames, ignore_index=True)
 
 
-def _precipitation(rng, met):
+def _precipitation(rng, met, start, weeks):
     rows = []
     for site in PLACES:
         m = met[met.site == site]
         times = pd.to_datetime(m["time"])
-        for w in range(WEEKS):
-            st, en = START + pd.Timedelta(weeks=w), START + pd.Timedelta(weeks=w + 1)
+        for w in range(weeks):
+            st, en = start + pd.Timedelta(weeks=w), start + pd.Timedelta(weeks=w + 1)
             depth = float(m.loc[(times > st) & (times <= en), "precipitation [mm]"].sum())
             na = (6.0 if site == "saltcove" else 0.5) * rng.lognormal(0, .2)
             so4 = 0.25 * na + 0.9 * rng.lognormal(0, .2)
@@ -110,15 +110,15 @@ def _precipitation(rng, met):
     return frame
 
 
-def _air(rng):
+def _air(rng, start, weeks):
     weekly = pd.DataFrame([{
-        "site": "saltcove", "start": f"{START + pd.Timedelta(weeks=w, hours=1):%Y-%m-%dT%H:%M}",
-        "end": f"{START + pd.Timedelta(weeks=w + 1, hours=1):%Y-%m-%dT%H:%M}", "sampler_id": "SAL-F1",
+        "site": "saltcove", "start": f"{start + pd.Timedelta(weeks=w, hours=1):%Y-%m-%dT%H:%M}",
+        "end": f"{start + pd.Timedelta(weeks=w + 1, hours=1):%Y-%m-%dT%H:%M}", "sampler_id": "SAL-F1",
         "SO2 [ug/m3]": round(.6 * rng.lognormal(0, .4), 2), "HNO3 [ug/m3]": round(.5 * rng.lognormal(0, .3), 2),
         "NH3 [ug/m3]": round(1.0 * rng.lognormal(0, .4), 2), "pSO4 [ug/m3]": round(1.8 * rng.lognormal(0, .3), 2),
         "pNO3 [ug/m3]": round(1.5 * rng.lognormal(0, .4), 2), "pNH4 [ug/m3]": round(.8 * rng.lognormal(0, .3), 2),
-        "pNa [ug/m3]": round(2.5 * rng.lognormal(0, .3), 2)} for w in range(WEEKS)])
-    ht = pd.date_range(START, periods=24 * 7 * WEEKS, freq="h")
+        "pNa [ug/m3]": round(2.5 * rng.lognormal(0, .3), 2)} for w in range(weeks)])
+    ht = pd.date_range(start, periods=24 * 7 * weeks, freq="h")
     n = len(ht)
     hourly = pd.DataFrame({
         "site": "tillby", "start": ht.strftime("%Y-%m-%dT%H:%M"),
@@ -132,16 +132,24 @@ def _air(rng):
     return pd.concat([weekly, hourly], ignore_index=True)
 
 
-def make_haddermoor(out_dir) -> Path:
-    """Write the network's files into `out_dir`; return the scenario path."""
+def make_haddermoor(out_dir, start=START, weeks=WEEKS, period=True) -> Path:
+    """Write the network's files into `out_dir`; return the scenario path.
+
+    `start` (Tuesday 09:00 UTC) and `weeks`: the record; `period` False leaves
+    ``[period]`` start and end out (the chemistry's span, as the trial's scenario) and
+    reports years."""
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     rng = np.random.default_rng(2021)
-    met = _met(rng)
+    start = pd.Timestamp(start)
+    met = _met(rng, start, weeks)
     met.to_csv(out / "met.csv", index=False)
-    _precipitation(rng, met).to_csv(out / "precipitation.csv", index=False)
-    _air(rng).to_csv(out / "air.csv", index=False)
+    _precipitation(rng, met, start, weeks).to_csv(out / "precipitation.csv", index=False)
+    _air(rng, start, weeks).to_csv(out / "air.csv", index=False)
     (out / "sites.toml").write_text(SITES, encoding="utf-8")
     path = out / "scenario.toml"
-    path.write_text(SCENARIO, encoding="utf-8")
+    text = SCENARIO if period else "\n".join(
+        line for line in SCENARIO.splitlines() if not line.startswith(("start =", "end ="))) + "\n"
+    path.write_text(text.replace('resolution = "month"', 'resolution = "month"' if period
+                                 else 'resolution = "year"'), encoding="utf-8")
     return path

@@ -128,3 +128,35 @@ def test_every_app_names_a_site_it_does_not_have(haddermoor, app):
             sobol_module.SobolExplorer(Session.open(scenario), site="Tillby", run=False)
         else:
             getattr(apps, app).from_scenario(scenario, site="Tillby")
+
+
+def test_critical_loads_app_opens_on_the_sites_last_year_not_a_new_years_tail(tmp_path):
+    """The trial's scenario leaves [period] to the chemistry's span, which runs to the
+    end of the last weekly sample: a few days into the next year.  The critical-loads
+    app listed that year and opened on it ("There is no acidity exceedance. There is no
+    nutrient-N exceedance." of two days of data) while the site exceeds in its whole
+    years; the site-budget app already kept to the years a sample starts in
+    (Session.site_years)."""
+    import warnings
+
+    from workbench.ui.apps_analysis import CriticalLoadsExplorer
+    from workbench.ui.session import Session
+    scenario = make_haddermoor(tmp_path, start="2021-10-05T09:00", weeks=13, period=False)
+    sites = scenario.parent / "sites.toml"          # saltcove's loads (eq/ha/yr, invented)
+    sites.write_text(sites.read_text().replace(
+        "coast_distance_km = 1.5\n", "coast_distance_km = 1.5\n\n[site.critical_loads]\n"
+        "cl_nut_n = 500.0\n"))
+    session = Session.open(scenario)
+    assert session.years == (2021, 2022)             # the span reaches 2022-01-04
+    assert session.site_years("saltcove") == (2021, 2021)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = CriticalLoadsExplorer(session, site="saltcove")
+    assert list(app.year_w.options) == ["2021"] and app.year_w.value == "2021"
+    assert "saltcove · grass · 2021" in app.statement
+    assert "There is no nutrient-N exceedance" not in app.statement, app.statement
+    with warnings.catch_warnings():                  # years asked for: clamped, and said
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = CriticalLoadsExplorer(session, site="saltcove", years=(2021, 2022))
+    assert list(app.year_w.options) == ["2021"]
+    assert "saltcove has samples in 2021 only: years set to 2021" in app.progress.label.value
