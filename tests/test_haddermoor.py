@@ -160,3 +160,23 @@ def test_critical_loads_app_opens_on_the_sites_last_year_not_a_new_years_tail(tm
         app = CriticalLoadsExplorer(session, site="saltcove", years=(2021, 2022))
     assert list(app.year_w.options) == ["2021"]
     assert "saltcove has samples in 2021 only: years set to 2021" in app.progress.label.value
+
+
+def test_sensitivity_page_heads_with_the_sites_last_year_not_a_new_years_tail(tmp_path):
+    """sensitivity.html shows the first site's last period: with [period] left to the
+    chemistry's span that was the few days of the next year that the last weekly sample
+    reaches into (its dry S scaled up to a year from a day of air), not the site's last
+    year."""
+    from workbench.analysis.sensitivity import write_sensitivity
+    from workbench.scenario import load_scenario
+    scenario = make_haddermoor(tmp_path / "net", start="2021-10-05T09:00", weeks=13,
+                               period=False)
+    with open(scenario, "a", encoding="utf-8") as f:
+        f.write('\n[sensitivity]\nsamples = 8\nsites = ["saltcove"]\n'
+                '[sensitivity.factors]\nvd_SO2 = [0.5, 1.5]\ngauge_catch = [0.9, 1.1]\n')
+    files = write_sensitivity(load_scenario(scenario), tmp_path / "sens", quiet=True)
+    frame = pd.read_csv(files["sensitivity.csv"], dtype={"period": str})
+    assert set(frame["period"]) == {"2021", "2022"}        # both years stay in the tables
+    page = files["sensitivity.html"].read_text(encoding="utf-8")
+    page = page.replace("\\u00b7", "·")             # the titles as plotly's JSON writes them
+    assert "saltcove · grass · 2021" in page and "saltcove · grass · 2022" not in page
