@@ -75,6 +75,31 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
     return status, fails & ~missing, note
 
 
+def split_notes(text) -> list:
+    """The parts of a '; '-joined note (:func:`join_notes`), split only outside
+    parentheses: a part may hold "; " inside its own parenthesis ("... (sea salt
+    included, an upper bound; small inland)"), and a split there cut it in two, the
+    second half then read as a part of its own ("every year used: pSO4: small inland)").
+
+    >>> split_notes("a (b; c); d")
+    ['a (b; c)', 'd']
+    >>> split_notes("")
+    []
+    """
+    text = str(text)
+    parts, depth, start = [], 0, 0
+    for i, ch in enumerate(text):            # over a note's characters, never over hours
+        if ch == "(":
+            depth += 1
+        elif ch == ")":
+            depth = max(depth - 1, 0)
+        elif ch == ";" and depth == 0 and text.startswith("; ", i):
+            parts.append(text[start:i])
+            start = i + 2
+    parts.append(text[start:])
+    return [p for p in parts if p.strip()]
+
+
 def join_notes(acc, text):
     """Append `text` to the '; '-joined notes in `acc` (ndarray of str or str); an empty
     `text` (scalar or element) leaves `acc` as it is."""

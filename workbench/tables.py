@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .budgetstatus import join_notes
+from .budgetstatus import join_notes, split_notes
 from .units import deposition_in, element_deposition_in
 from .wet.qa import UMOL_L_PER_MOL_M3
 
@@ -154,7 +154,7 @@ def _sum_notes(frame: pd.DataFrame) -> pd.DataFrame:
     if not part_of.any():
         return frame
     rows = frame.loc[part_of, _SUM_KEYS + ["pathway", "species"]].assign(
-        _part=note[part_of].str.split("; "))
+        _part=note[part_of].map(split_notes))
     rows = rows.explode("_part")
     rows = rows[rows["_part"].str.strip() != ""]
     both = pd.concat([rows, rows.assign(pathway="total")], ignore_index=True)
@@ -340,7 +340,7 @@ def _notes_by_year(rows: pd.DataFrame, keys) -> pd.Series:
     for key, year, text in zip(zip(*(noted[k].to_numpy() for k in keys)),
                                rows.loc[has, "year"].to_numpy(), note[has]):
         parts = by_key.setdefault(key, {})
-        for part in text.split("; "):
+        for part in split_notes(text):
             if part.strip():
                 parts.setdefault(part, set()).add(int(year))
     out = {}

@@ -87,6 +87,11 @@ def test_shifted_copy_is_named(tmp_path, demo_cat, ridge_rows, hours, true_offse
     assert cause in note
     assert f"set utc_offset_h = {true_offset:g} in sites.toml" in note
     assert f"local time of UTC{true_offset:+g} while utc_offset_h = 1" in note
+    # utc_offset_h moves the site's sample and air labels too (the Haddermoor trial: a
+    # farm's met logger on local time beside UTC hourly air; tests/haddermoor_net.py)
+    assert ("utc_offset_h moves the naive labels of the site's precipitation and air files "
+            "too: where those are on the declared clock, give this file's labels their "
+            "zone)") in note
     assert "values kept as read, not shifted" in note
     if hours == 1:
         assert "'# time_label: start'" in note      # hour ends under a start header

@@ -265,3 +265,52 @@ def test_end_of_day_labels_of_the_met(tmp_path, cat, met_reader):
 def _write_met(path, text):
     path.write_text(text)
     return path
+
+
+def _bare_header_with_units_row(text):
+    """`text` as a sheet exports it: the header's names without their units, and the
+    units on a row of their own under it (the Haddermoor user trial's precipitation
+    file, tests/haddermoor_net.py); returns the text and the units row's line."""
+    import re
+    lines = text.splitlines()
+    k = next(i for i, line in enumerate(lines) if line.startswith("site,"))
+    head = lines[k].split(",")
+    names = [re.sub(r"\s*\[[^\]]*\]", "", c) for c in head]
+    units = [next(iter(re.findall(r"\[([^\]]+)\]", c)), "") for c in head]
+    lines[k:k + 1] = [",".join(names), ",".join(units)]
+    return "\n".join(lines) + "\n", k + 2
+
+
+@pytest.mark.parametrize("kind", ["precipitation", "air", "met"])
+def test_a_units_row_under_a_header_without_units_is_named(tmp_path, cat, met_reader, kind):
+    """The usual export puts the names on the first line and the units on the second
+    (the header then has no unit at all). The hint above needs the units in the header
+    too, so this file got only "an empty site cell" (the user's question: which empty
+    cell?); now the message says what the row is and which headers to write."""
+    source = {"precipitation": PRECIP, "air": AIR, "met": met_text()}[kind]
+    text, line = _bare_header_with_units_row(source)
+    path = tmp_path / f"{kind}.csv"
+    path.write_text(text)
+    reader = {"precipitation": read_precipitation, "air": read_air, "met": met_reader}[kind]
+    with pytest.raises(InputError) as exc:
+        reader(path, cat if kind == "met" else _cat(tmp_path))
+    msg = str(exc.value)
+    first = {"precipitation": "'gauge_depth [mm]'", "air": "'SO2 [ug/m3]'",
+             "met": "'wind_speed [m/s]'"}[kind]
+    assert msg.startswith(f"{path}, line {line}, column 'site': site not in the catalogue (an "
+                          "empty site cell: a row of units under a header without units, as a "
+                          "spreadsheet exports them? write each unit into its column's header "
+                          f"in square brackets, {first}, "), msg
+    assert ", and remove the row): got ''" in msg, msg
+
+
+@pytest.mark.parametrize("cells", [("12.5", "300", "452"), ("mm", "3"), ("mm",)])
+def test_a_row_that_is_not_all_units_keeps_the_plain_hint(tmp_path, cells):
+    """Numbers, or a single unit, are not a units row (our choice: two cells at least)."""
+    text, _ = _bare_header_with_units_row(PRECIP)
+    lines = text.splitlines()
+    n = len(lines[0].split(","))
+    lines[1] = ",".join(["", "", "", ""] + list(cells) + [""] * (n - 4 - len(cells)))
+    (tmp_path / "p.csv").write_text("\n".join(lines) + "\n")
+    msg = _error(read_precipitation, tmp_path / "p.csv", _cat(tmp_path))
+    assert "site not in the catalogue (an empty site cell): got ''" in msg, msg

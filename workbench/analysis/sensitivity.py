@@ -191,8 +191,10 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
     y : ndarray (n, S, R, P, Q)
         Outputs of :data:`OUTPUTS` [mol m-2; eq ha-1 for the acidity].
     coords : dict
-        ``site``, ``receptor``, ``period`` labels, and ``data``: :func:`data_notes` of
-        the budget.
+        ``site``, ``receptor``, ``period`` labels, ``data``: :func:`data_notes` of the
+        budget, and ``pairs``: the (site, receptor) pairs of the budget's rows (each
+        site's own surfaces; the grid of the arrays holds every receptor of the network
+        at every site).
     """
     names = list(options.factors)
     engine = [i for i, nm in enumerate(names) if factor_kind(nm) != "linear"]
@@ -215,6 +217,8 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
                         np.nan)
             # what the budget lacks (no engine factor changes which data a site has)
             coords["data"] = data_notes(ds)
+            table = res.table
+            coords["pairs"] = set(zip(table["site"].astype(str), table["receptor"].astype(str)))
         rows = np.asarray(rows)
         values = {names[i]: x[rows, i] for i in linear}
         for s in range(len(coords["site"])):
@@ -399,13 +403,19 @@ def row_note(name, element, quantity, data) -> str:
 
 def _cells(coords, options):
     """Each (site, receptor, period) asked for by `options` and each output of
-    :data:`OUTPUTS`: yields ((site, receptor, period), (s, r, p, q) indices, output)."""
+    :data:`OUTPUTS`: yields ((site, receptor, period), (s, r, p, q) indices, output).
+    Only a site's own surfaces (``coords["pairs"]``, the budget's rows): the arrays hold
+    every receptor of the network at every site, and a surface the site does not have
+    has no deposition velocity (its rows said "check the met record", a false lead)."""
     sites, recs, pers = coords["site"], coords["receptor"], coords["period"]
+    pairs = coords.get("pairs")
     for s in range(len(sites)):
         if options.sites and sites[s] not in options.sites:
             continue
         for r in range(len(recs)):
             if options.receptors and recs[r] not in options.receptors:
+                continue
+            if pairs is not None and (sites[s], recs[r]) not in pairs:
                 continue
             for p in range(len(pers)):
                 for q, out in enumerate(OUTPUTS):
@@ -480,7 +490,8 @@ def _write_sensitivity(sc, out, quiet):
         t, index=False, float_format="%.6g")),
         "tornado.csv": atomic_write(out / "tornado.csv", lambda t: torn.to_csv(
             t, index=False, float_format="%.6g"))}
-    html = sensitivity_html(frame, torn)
+    html = sensitivity_html(frame, torn, period=_headline_period(
+        study, frame, p["resolution"], sc.options["wet"].hydro_start_month))
     written["sensitivity.html"] = atomic_write(out / "sensitivity.html",
                                                lambda t: t.write_text(html, encoding="utf-8"))
     return list(written)
@@ -504,9 +515,33 @@ def _check_cells(sc, catalogue, opt):
                                 expected="one of " + ", ".join(known) + suggest(bad[0], known))
 
 
-def sensitivity_html(frame: pd.DataFrame, torn: pd.DataFrame) -> str:
+def _headline_period(study, frame, resolution, hydro_start_month=10):
+    """The label of the period that holds the last sample or air period to *start* at
+    the first site of `frame`, or None: the chemistry's span runs to the end of the last
+    weekly sample, a few days into the next year, and that year of a few days (its dry
+    deposition scaled up from a day or two of air) headed sensitivity.html."""
+    from ..periods import make_periods
+    if frame.empty:
+        return None
+    site = str(frame.iloc[0]["site"])
+    last = []
+    for ds in (study.inputs.precipitation, study.inputs.air):
+        if ds is not None and ds["start"].size:
+            mine = ds["site"].values.astype(str) == site
+            if mine.any():
+                last.append(ds["start"].values[mine].max())
+    if not last:
+        return None
+    t = max(last)
+    table = make_periods(t, t + np.timedelta64(1, "s"), resolution,
+                         hydro_start_month=hydro_start_month)
+    return str(table["label"].iloc[0]) if len(table) else None
+
+
+def sensitivity_html(frame: pd.DataFrame, torn: pd.DataFrame, period=None) -> str:
     """An HTML page with the Sobol bars and the tornado of every total of the first
-    (site, receptor) of `frame` and its last period."""
+    (site, receptor) of `frame` and its last period (`period`, when given and among the
+    pair's periods: :func:`_headline_period`, the last period a sample starts in)."""
     import html as _html
 
     import plotly.io as pio
@@ -528,8 +563,10 @@ def sensitivity_html(frame: pd.DataFrame, torn: pd.DataFrame) -> str:
         parts.append("<p>No total varies with the factors given.</p>")
     else:
         first = frame.iloc[0]
-        period = frame.loc[(frame["site"] == first["site"])
-                           & (frame["receptor"] == first["receptor"]), "period"].iloc[-1]
+        periods = frame.loc[(frame["site"] == first["site"])
+                            & (frame["receptor"] == first["receptor"]), "period"].astype(str)
+        period = str(period) if period is not None and str(period) in set(periods) \
+            else periods.iloc[-1]
         include = "inline"
         for el, quantity, _ in OUTPUTS:
             if _pick_any(frame, first["site"], first["receptor"], period, el, quantity):

@@ -23,6 +23,34 @@ def _units_row(tab: RawTable, words) -> bool:
     return bool(cells) and bool(units) and all(c in units for c in cells)
 
 
+def _units_under_bare_header(tab: RawTable, row) -> list:
+    """The headers to write when a row holds the units of a header written without
+    them (a sheet's export: names on the first line, units on the second), e.g.
+    ``['gauge_depth [mm]', 'SO4 [mg/L]']``; ``[]`` when the row is not such a row.
+
+    A units row: at least two non-empty cells, none a number, each a unit of pint
+    (:func:`workbench.units.parse_unit`; ``1`` is a fraction's unit, another number is
+    not a unit), at least one not dimensionless, each under a
+    column whose header has no unit of its own."""
+    from ..units import parse_unit
+    out, dimensioned = [], False
+    for col, cell in zip(tab.frame.columns, row):
+        cell = str(cell).strip().strip("[]() ")
+        if not cell:
+            continue
+        head = tab.headers.get(col)
+        number = cell != "1" and re.fullmatch(r"[-+]?[\d.,]+(?:[eE][-+]?\d+)?", cell)
+        if head is None or head.unit or number:      # "1": the unit of a fraction
+            return []
+        try:
+            unit, _ = parse_unit(cell)
+        except ValueError:
+            return []
+        dimensioned = dimensioned or not unit.dimensionless
+        out.append(f"{tab.raw_headers.get(col, col)} [{cell}]")
+    return out if len(out) >= 2 and dimensioned else []
+
+
 def check_sites(tab: RawTable, catalogue) -> np.ndarray:
     """The ``site`` column as an array, every value checked against the catalogue."""
     sites = tab.text("site")
@@ -39,6 +67,11 @@ def check_sites(tab: RawTable, catalogue) -> np.ndarray:
             elif _units_row(tab, words):
                 hint = (" (an empty site cell: a row of units under the header, as a spreadsheet "
                         "exports them? the unit goes in the header, 'SO2 [ug/m3]': remove the row)")
+            elif bare := _units_under_bare_header(tab, tab.frame.iloc[i].tolist()):
+                shown = ", ".join(repr(h) for h in bare[:4]) + (", ..." if len(bare) > 4 else "")
+                hint = (" (an empty site cell: a row of units under a header without units, as "
+                        "a spreadsheet exports them? write each unit into its column's header "
+                        f"in square brackets, {shown}, and remove the row)")
             else:
                 hint = " (an empty site cell)"
         elif sites[i].strip().lower() in {c.lower() for c in catalogue.ids}:

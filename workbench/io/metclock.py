@@ -263,7 +263,9 @@ def _cause(lag, off, utc_labels=False) -> str:
                  f"{abs(n)} h {way}")
         local = (f"labels in local time of UTC{true:+g} while utc_offset_h = {off:g} (if so, "
                  f"set utc_offset_h = {true:g} in sites.toml, or write each label with its "
-                 f"zone, e.g. 2021-06-01T13:00{_zone(true)})")
+                 f"zone, e.g. 2021-06-01T13:00{_zone(true)}; utc_offset_h moves the naive "
+                 f"labels of the site's precipitation and air files too: where those are on "
+                 f"the declared clock, give this file's labels their zone)")
     if n > 0:
         extra = ("; or hour-ending labels under '# time_label: start' (remove that line; "
                  "NetCDF/zarr: the time_label attribute)") if n == 1 else ""

@@ -56,6 +56,7 @@ class SobolExplorer(SavedText, widgets.VBox):
         self.session = session
         self.settings = session.baseline
         first, last = session.years
+        session.check_site(site)
         site = site or session.sites[0]
         years = tuple(years) if years else (session.site_years(site)[1],) * 2
         opt = session.scenario.options["sensitivity"]

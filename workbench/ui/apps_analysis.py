@@ -89,6 +89,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         self.session = session
         first, last = session.years
         self.years = tuple(years) if years else (first, last)
+        self._years_given = bool(years)
         self.progress = progress or Progress()
         site = site or session.sites[0]
         self.site_w = widgets.Dropdown(options=session.site_options(), value=site,
@@ -171,8 +172,14 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
     def _load(self):
         """Run the site's yearly budget and split it into the groups that can be cut."""
         self.progress.start(f"budget of {self.site_w.value}")
-        result = self.session.run(self.session.baseline, self.site_w.value, *self.years,
+        # the years of the site's record only (Session.site_years): the scenario's span
+        # ran to the year the last weekly sample ends in, and the app opened on that
+        # year's two days of data ("There is no acidity exceedance" of a flagged year,
+        # the site exceeding in every whole year)
+        years, moved = self.session.years_for(self.site_w.value, self.years)
+        result = self.session.run(self.session.baseline, self.site_w.value, *years,
                                   resolution="year")
+        self.run_years = years
         self.result, self._draws = result, None
         self.effect_w.value = ""
         self.parts = group_deposition(result.years)
@@ -183,7 +190,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
             self.year_w.value = labels[-1]
         finally:
             self._filling = False
-        self.progress.done("ready")
+        self.progress.done("ready" + (f"; {moved}" if moved and self._years_given else ""))
         self.draw()
 
     @staticmethod
@@ -204,7 +211,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
             from ..analysis.uncertainty import monte_carlo
             self.progress.start(f"Monte Carlo of {self.site_w.value} "
                                 f"({self.unc_options.draws} draws)")
-            study = self.session.study_for(self.site_w.value, *self.years)
+            study = self.session.study_for(self.site_w.value, *self.run_years)
             q = monte_carlo(self.result, study, self.unc_options,
                             overrides=self.session.baseline.overrides, years_only=True)
             self._draws = q.total_draws

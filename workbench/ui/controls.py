@@ -588,6 +588,11 @@ def open_with_progress(cls, scenario_path, **kw):
     except WorkbenchError:
         prog.step("not opened: the message below says what to mend", 0.0)
         raise
+    try:
+        session.check_site(kw.get("site"))      # one line, not ipywidgets' TraitError
+    except WorkbenchError:
+        prog.step("not opened: the message below says what to mend", 0.0)
+        raise
     prog.step("first run", 0.85)
     app = cls(session, progress=prog, **kw)
     prog.done("ready")

@@ -110,6 +110,24 @@ class Session:
         have = set(self.sites)
         return [s for s in self.study.inputs.catalogue.ids if s not in have]
 
+    def check_site(self, site):
+        """Raise one located :class:`~workbench.errors.ScenarioError` when `site` (an app's
+        ``site``, the ``SITE`` of a notebook's first cell) is not ``None`` and not one of
+        :attr:`sites`: a notebook opened on another scenario kept the demo's ``"ridge"``
+        and failed in ipywidgets with a ``TraitError`` traceback (and a ``NameError`` in
+        the next cell)."""
+        if site is None or site in self.sites:
+            return
+        from ..errors import ScenarioError, suggest
+        ids = self.study.inputs.catalogue.ids
+        what = ("a site of sites.toml without a precipitation, air or met row (nothing "
+                "computed for it)" if site in ids else "not a site of this scenario")
+        raise ScenarioError(
+            f"SITE (the notebook's first cell, or the app's site) is {what}",
+            file=getattr(self.scenario, "path", None), value=site,
+            expected="one of " + ", ".join(self.sites) + suggest(site, self.sites)
+            + ", or None for the first site with data")
+
     def site_options(self) -> list:
         """``(label, id)`` of :attr:`sites` for a dropdown: the id and the site's name
         from sites.toml (thirty bare ids read alike)."""
