@@ -483,6 +483,8 @@ def _write_sensitivity(sc, out, quiet):
     html = sensitivity_html(frame, torn)
     written["sensitivity.html"] = atomic_write(out / "sensitivity.html",
                                                lambda t: t.write_text(html, encoding="utf-8"))
+    from ..csvcaution import CAUTION_FILE, write_folder_caution
+    written[CAUTION_FILE] = write_folder_caution(out, atomic_write)   # the CSVs carry none
     return list(written)
 
 
