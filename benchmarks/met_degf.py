@@ -5,8 +5,9 @@ Run: ``python benchmarks/met_degf.py [--years 3 --seeds 10]``.  Invented hourly
 temperatures of five climates (annual mean, seasonal amplitude, sd of a synoptic AR(1)
 of 3 days' memory, diurnal amplitude): tundra, continental, temperate, hot desert,
 tropical.  Clean records count false alarms (days found per site-year); slipped ones
-hold a run of L days at a random place written in degF, and count the share of the run's
-days found.
+hold a run of L days (from 6 hours up) from a random hour written in degF, and count the
+share of the run's days found.  A stress of the false alarms adds 20 abrupt warm or cold
+spells a year (8-25 K within an hour, 2-96 h long, back within an hour).
 """
 from __future__ import annotations
 
@@ -20,7 +21,7 @@ from scipy.signal import lfilter
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 from workbench.constants import ZERO_CELSIUS  # noqa: E402
-from workbench.io.metdegf import fahrenheit_days  # noqa: E402
+from workbench.io.metdegf import fahrenheit_days, fahrenheit_edges  # noqa: E402
 
 #: name -> (annual mean, seasonal amplitude, synoptic sd, diurnal amplitude) [degC, K]
 CLIMATES = {"tundra": (-12.0, 20.0, 7.0, 3.0), "continental": (3.0, 18.0, 6.0, 6.0),
@@ -42,37 +43,66 @@ def invented_year(rng, climate, years):
     return t, x
 
 
-def run(climate, years, seeds, run_days):
+def with_steps(rng, x, per_year=20):
+    """`x` with abrupt warm or cold spells (a foehn, a cold pool breaking): per year
+    `per_year` steps of 8-25 K up or down within one hour, lasting 2-96 h, and back
+    within one hour (a stress: real such steps are rare at most sites)."""
+    y = x.copy()
+    n = len(x)
+    for _ in range(int(per_year * n / 8760)):
+        a = int(rng.integers(0, n - 100))
+        y[a:a + int(rng.integers(2, 97))] += rng.choice([-1, 1]) * rng.uniform(8, 25)
+    return y
+
+
+def run(climate, years, seeds, run_days, steps=False):
     false_days = found = total = 0
     for seed in range(seeds):
         rng = np.random.default_rng(seed)
         t, x = invented_year(rng, climate, years)
+        if steps:
+            x = with_steps(rng, x)
         codes = np.zeros(len(t), np.int64)
-        hit = fahrenheit_days(x + ZERO_CELSIUS, codes, t)
+        hit = found_rows(x + ZERO_CELSIUS, codes, t)
         false_days += len(np.unique(t[hit].astype("datetime64[D]")))
         if run_days:
-            a = 24 * int(rng.integers(0, 365 * years - run_days))
+            h = int(round(24 * run_days))
+            a = int(rng.integers(0, 24 * 365 * years - h))   # from any hour
             y = x.copy()
-            y[a:a + 24 * run_days] = y[a:a + 24 * run_days] * 1.8 + 32.0
-            hit = fahrenheit_days(y + ZERO_CELSIUS, codes, t)
-            found += hit[a:a + 24 * run_days].sum() / 24
+            y[a:a + h] = y[a:a + h] * 1.8 + 32.0
+            hit = found_rows(y + ZERO_CELSIUS, codes, t)
+            found += hit[a:a + h].sum() / 24
             total += run_days
     return false_days / (seeds * years), (found / total if total else np.nan)
+
+
+def found_rows(temperature_k, codes, t, edges=True):
+    """The rows the reader masks: the day test, and the edges of a run (new)."""
+    hit = fahrenheit_days(temperature_k, codes, t)
+    return hit | fahrenheit_edges(temperature_k, codes, t) if edges else hit
 
 
 def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--years", type=int, default=3)
     ap.add_argument("--seeds", type=int, default=10)
+    ap.add_argument("--daily-only", action="store_true",
+                    help="the daily test alone (the reader before the edges)")
     args = ap.parse_args(argv)
-    print("| climate | run [days] | false days per site-year (clean) | run days found |")
-    print("|---|---|---|---|")
+    if args.daily_only:
+        global found_rows
+        edges_too = found_rows
+        found_rows = lambda tk, c, t: edges_too(tk, c, t, edges=False)  # noqa: E731
+    print("| climate | run [days] | false days per site-year (clean) | false days per "
+          "site-year (20 abrupt spells a year) | run days found |")
+    print("|---|---|---|---|---|")
     rows = []
     for climate in CLIMATES:
-        for days in (1, 3, 14, 45):
+        for days in (0.25, 1, 3, 14, 45):
             fa, det = run(climate, args.years, args.seeds, days)
-            rows.append((climate, days, fa, det))
-            print(f"| {climate} | {days} | {fa:.3f} | {det:.2f} |", flush=True)
+            fs, _ = run(climate, args.years, args.seeds, 0, steps=True)
+            rows.append((climate, days, fa, fs, det))
+            print(f"| {climate} | {days} | {fa:.3f} | {fs:.3f} | {det:.2f} |", flush=True)
     return rows
 
 

@@ -209,6 +209,13 @@ def test_air_unit_step_benchmark_counts_alarms_and_detections():
     assert bench.demo_notes() == []
 
 
+def test_air_own_step_benchmark_counts_alarms_and_detections():
+    bench = _load("air_own_step")
+    false_alarms, found, changed = bench.run(2, "SO2", 3, 52, 0.35, seed=5)
+    assert 0 <= false_alarms <= 2 and 0 <= found <= 1 and 0 <= changed <= 2
+    assert bench.demo_notes() == []
+
+
 def test_met_degf_benchmark_runs():
     bench = _load("met_degf")
     false_days, found = bench.run("temperate", 1, 1, 3)

@@ -22,8 +22,10 @@ def cmd_compare(args) -> int:
     print(c.text())
     if args.csv is not None:
         from .runfolder import atomic_write
+        from .csvcaution import write_sidecar_caution
         atomic_write(Path(args.csv), lambda tmp: c.budget.to_csv(tmp, index=False))
-        print(f"every differing total: {Path(args.csv).resolve()}")
+        side = write_sidecar_caution(Path(args.csv), atomic_write)
+        print(f"every differing total: {Path(args.csv).resolve()} (caution: {side.name})")
     return 0 if c.same else 1
 
 

@@ -24,6 +24,11 @@ CAUTION = (
     "methods your authority requires; these estimates do not replace local rules or "
     "accredited laboratory and network practice.")
 
+#: report.html's pointer to the caution file of the CSV files (workbench.csvcaution).
+CSV_CAUTION_LINE = ("The CSV files of this folder carry no caution line of their own (so "
+                    "that pandas and spreadsheets read them as they are): CAUTION.txt "
+                    "beside them holds it; hand it on with them.")
+
 
 #: Significant digits of the report's numbers.
 DIGITS = 3
@@ -446,7 +451,7 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
         f"<style>{style}</style></head><body><h1>{title}</h1>"
         f"<p>deposition workbench {__version__}{_run_line(scenario)}</p>"
         f"<p class='caution'><b>Caution.</b> {html.escape(CAUTION)}</p>{body}"
-        f"<p class='caution'>{html.escape(CAUTION)}</p></body></html>")
+        f"<p class='caution'>{html.escape(CAUTION)} {CSV_CAUTION_LINE}</p></body></html>")
 
 
 #: The random id plotly gives the div of a figure (a UUID4).

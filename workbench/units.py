@@ -58,6 +58,50 @@ UG_PER_KG = unit_factor("kg", "ug")
 M2_PER_HA = unit_factor("ha", "m**2")
 MM_PER_M = unit_factor("m", "mm")
 
+#: UDUNITS-2 names of the temperature units (the units library CF names for its
+#: ``units`` attributes), from its database: udunits2-derived.xml (``degree_Celsius``,
+#: plural ``degrees_Celsius``), udunits2-base.xml (``kelvin``) and udunits2-common.xml
+#: (the aliases ``celsius``, ``degree_C``, ``degreeC``, ``deg_C``, ``degC`` with their
+#: plurals ``degrees_C``, ``degreesC``, ``degs_C``, ``degsC``; the same forms of K, F and
+#: R, and ``fahrenheit``).  UDUNITS-2 compares names case-blind (``Celsius``, ``DEGC``)
+#: and forms the plural of a name without one by adding ``s`` (``kelvins``); pint knows
+#: only some of these (``degC``, ``degree_Celsius``, ``celsius``), so the others were
+#: refused as unknown.  Lower case -> the pint spelling; tests/test_units_udunits.py holds
+#: the table to cf_units (which reads that database).  Symbols (``°C``, ``℃``, ``°F``,
+#: ``℉``, ``°K``, ``°R``) are compared as written.
+_UDUNITS_TEMPERATURE = {}
+for _pint_name, _names in (
+        ("degC", ("degree_celsius", "celsius", "degree_c", "degreec", "deg_c", "degc")),
+        ("K", ("kelvin", "degree_kelvin", "degree_k", "degreek", "deg_k", "degk")),
+        ("degF", ("fahrenheit", "degree_fahrenheit", "degreef", "degree_f", "degf", "deg_f")),
+        ("degR", ("degree_rankine", "degreer", "degree_r", "degr", "deg_r"))):
+    for _n in _names:
+        _UDUNITS_TEMPERATURE[_n] = _pint_name
+        # plurals as the database writes them: degree_x -> degrees_x, deg_x -> degs_x,
+        # degX -> degsX; a name without a given plural takes the English one (kelvins,
+        # celsiuses, fahrenheits)
+        if _n.startswith("degree"):
+            _UDUNITS_TEMPERATURE["degrees" + _n[6:]] = _pint_name
+        elif _n.startswith("deg"):
+            _UDUNITS_TEMPERATURE["degs" + _n[3:]] = _pint_name
+        else:
+            _UDUNITS_TEMPERATURE[_n + ("es" if _n.endswith("s") else "s")] = _pint_name
+_UDUNITS_TEMPERATURE.update({"°C": "degC", "\u2103": "degC", "°K": "K", "°F": "degF",
+                             "\u2109": "degF", "°R": "degR"})
+
+
+def udunits_temperature(text: str) -> str | None:
+    """The pint spelling of a UDUNITS-2 temperature unit name or symbol, else None.
+
+    >>> udunits_temperature("Celsius"), udunits_temperature("degrees_C")
+    ('degC', 'degC')
+    >>> udunits_temperature("deg C") is None, udunits_temperature("Celcius") is None
+    (True, True)
+    """
+    t = str(text).strip()
+    return _UDUNITS_TEMPERATURE.get(t) or _UDUNITS_TEMPERATURE.get(t.lower())
+
+
 _HEADER = re.compile(r"^\s*(?P<name>[^\[\]]+?)\s*(?:\[(?P<unit>[^\[\]]*)\])?\s*$")
 _EQ = re.compile(r"(?<![A-Za-z])(p|n|u|µ|m|k)?eq(?![A-Za-z])")
 
@@ -175,6 +219,9 @@ def parse_unit(text: str):
     ValueError
         When pint does not know the unit.
     """
+    cf = udunits_temperature(text)
+    if cf is not None:
+        return ureg.parse_units(cf), False
     t = text.strip().replace("µ", "u").replace("μ", "u")
     is_eq = bool(_EQ.search(t))
     t = _EQ.sub(lambda m: (m.group(1) or "") + "mol", t)

@@ -395,6 +395,13 @@ def write_analysis_tables(result, study, scenario, path):
     return list(write_analysis(result, study, scenario, Path(path).parent, atomic_write))
 
 
+def write_caution_file(result, study, scenario, path):
+    """CAUTION.txt: the caution of the CSV files, which carry no line of their own
+    (:mod:`workbench.csvcaution`)."""
+    from .csvcaution import write_folder_caution
+    return write_folder_caution(Path(path).parent, atomic_write)
+
+
 #: The files of a run folder, in the order they are written: (file name, writer).  A
 #: writer is called as ``writer(result, study, scenario, path)`` and returns the path it
 #: wrote, None when it has nothing to write, or the list of names of the several files
@@ -408,6 +415,7 @@ OUTPUT_STEPS = [
     ("velocities.nc", write_velocities_nc),
     ("report.html", write_report_html),
     ("input_rows.csv", write_input_rows),
+    ("CAUTION.txt", write_caution_file),
     ("analysis tables", write_analysis_tables),
 ]
 

@@ -494,6 +494,8 @@ def _write_sensitivity(sc, out, quiet):
         study, frame, p["resolution"], sc.options["wet"].hydro_start_month))
     written["sensitivity.html"] = atomic_write(out / "sensitivity.html",
                                                lambda t: t.write_text(html, encoding="utf-8"))
+    from ..csvcaution import CAUTION_FILE, write_folder_caution
+    written[CAUTION_FILE] = write_folder_caution(out, atomic_write)   # the CSVs carry none
     return list(written)
 
 

@@ -317,9 +317,11 @@ def _netcdf_units(raw, path):
         try:
             convert_met(np.zeros(1), str(unit), name, target)
         except ValueError as exc:
+            spell = (" (UDUNITS-2 spellings: 'degC', 'degree_Celsius', 'Celsius', 'K', "
+                     "'degF')" if target == "K" else "")
             raise InputError(f"unknown or dimensionally wrong unit ({exc})", file=path,
                              column=name, value=unit,
-                             expected=f"a unit convertible to {target}") from None
+                             expected=f"a unit convertible to {target}{spell}") from None
         raw_units[name] = unit
     return raw_units
 

@@ -20,7 +20,7 @@ from .metvars import MET_VARIABLES, convert_met
 
 #: The variables every met row needs: an empty cell of one flags its row.
 REQUIRED_NAMES = tuple(k for k, (_, req, _) in MET_VARIABLES.items() if req)
-from .metdegf import fahrenheit_days
+from .metdegf import fahrenheit_days, fahrenheit_edges
 from .plausible import SENTINELS
 
 #: Hard ranges (internal units) beyond which a value is masked (common practice).
@@ -366,12 +366,18 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
             if written_in(unit, "degF"):
                 _celsius_as_f(values["temperature"], med, frame, t, per_site, mask, unit)
             else:
-                days = fahrenheit_days(np.where(med > KELVIN_MEDIAN_MIN, np.nan,
-                                                values["temperature"]), codes, t)
+                as_read = np.where(med > KELVIN_MEDIAN_MIN, np.nan, values["temperature"])
+                days = fahrenheit_days(as_read, codes, t)
+                edges = fahrenheit_edges(as_read, codes, t) & ~days
                 mask("temperature", days,
                      f"temperature looks like degF although the header says {unit or 'degC'}: "
                      "the day's mean stands over 20 K above the median of the 121 days "
                      "around it and, read as degF, matches it (masked)")
+                mask("temperature", edges,
+                     f"temperature looks like degF although the header says {unit or 'degC'}: "
+                     "the run's first hour is 1.8 x the hour before + 32 and the hour after "
+                     "its last is back to the degC reading, read as degF it matches the "
+                     "hours around it (masked)")
                 t_k = np.where(med > KELVIN_MEDIAN_MIN, np.nan, values["temperature"])
                 g = frame.assign(v=t_k, hot=t_k > RANGES["temperature"][1]).groupby("site")
                 n_hot = g["hot"].transform("sum").to_numpy()

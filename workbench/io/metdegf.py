@@ -14,6 +14,11 @@ the two scales lie too close (they meet at -40) and a winter warm spell could lo
 same: such days are not judged.  A run of found days must start with a rise (or end
 with a drop) of :data:`JUMP_MIN` from one hour to the next: a logger's unit changes at
 an hour, a warm spell comes over hours.
+
+:func:`fahrenheit_edges` finds the runs the daily test cannot judge (a few hours, whose
+day's mean moves little; days below -5 degC) by their two edges: the first hour of the
+run is 1.8 x (the hour before) + 32 and the hour after its last is back to the degC
+reading (see its docstring).
 """
 from __future__ import annotations
 
@@ -94,6 +99,143 @@ def fahrenheit_days(temperature_k, codes, t) -> np.ndarray:
         return np.zeros(len(x), bool)
     key = pd.MultiIndex.from_arrays([codes, day])
     return key.isin(pd.MultiIndex.from_frame(hit))
+
+
+#: Largest distance of an hour after a rise from 1.8 x (the hour before) + 32, and of the
+#: hour before a drop from 1.8 x (the hour after) + 32 [K] (3 K: an hour's natural change
+#: of up to about 1.7 K, times 1.8; our choice, with benchmarks/met_degf.py).
+EDGE_TOL = 3.0
+#: Smallest rise (and drop) at an edge [K] (24 K: the jump of the degF reading of an
+#: hour at -10 degC or warmer (14 degF); natural changes of 24 K within an hour are
+#: extremely rare (a foehn in the lee of a range, from memory); with 10 K or 20 K,
+#: invented abrupt spells of 8-25 K within an hour were masked at -5 to -27 degC, with
+#: 24 K none were, and runs were found as often or more, benchmarks/met_degf.py; our
+#: choice).
+EDGE_JUMP_MIN = 24.0
+#: Longest run between a rise and its drop judged by the edges [h] (62 days; longer runs
+#: are the daily test's; our choice).
+EDGE_MAX_HOURS = 62 * 24
+#: Hours before the rise and after the drop whose mean is the run's neighbourhood [h].
+EDGE_NEIGHBOUR_HOURS = 24
+#: Largest distance of the run's mean read as degF from the mean of its neighbourhood
+#: [K] (8 K: a run of days may drift with the weather; our choice).
+EDGE_MATCH_K = 8.0
+#: Smallest ratio of the spread of the run's hourly changes to that of its neighbours
+#: for a long run [-] (degF stretches every change by 1.8; a warm spell keeps its own,
+#: about 1; 1.2 is our choice, with benchmarks/met_degf.py).
+EDGE_SPREAD_RATIO = 1.2
+#: Shortest run whose spread of hourly changes is compared [h] (two days: over one day
+#: the ratio of a degF run to its neighbours scattered from 1.2 to 2.4 in invented
+#: temperate records; our choice).
+EDGE_SPREAD_HOURS = 48
+
+
+def fahrenheit_edges(temperature_k, codes, t) -> np.ndarray:
+    """Rows of runs bounded by a rise to the degF reading of the hour before and a drop
+    back to the degC reading of the hour after.
+
+    A logger that switches to degF for some hours or days writes, at the first such
+    hour, 1.8 x (the hour's degC) + 32, and at the first hour back the degC value whose
+    degF reading the hour before held.  :func:`fahrenheit_days` sees such runs only on
+    whole days above -5 degC; these edges see them at any length (a few hours up) and at
+    any temperature where the degF reading stands :data:`EDGE_JUMP_MIN` above the degC
+    one (-10 degC or warmer).  A run is found when, on consecutive hours of one site:
+
+    * a rise of at least :data:`EDGE_JUMP_MIN` lands within :data:`EDGE_TOL` of 1.8 x
+      (the hour before, as it is or carried on by its own trend from the hour before
+      it, whichever is nearer) + 32;
+    * the next such drop (the hour before it within :data:`EDGE_TOL` of 1.8 x the hour
+      after, as it is or carried back by its trend, + 32) follows within :data:`EDGE_MAX_HOURS`, with no other rise between;
+    * the run's mean read as degF lies within :data:`EDGE_MATCH_K` of the mean of the
+      :data:`EDGE_NEIGHBOUR_HOURS` hours before the rise and after the drop;
+    * a run of :data:`EDGE_SPREAD_HOURS` or more changes from hour to hour
+      :data:`EDGE_SPREAD_RATIO` times as much as its neighbours (degF stretches every
+      change by 1.8; a warm spell keeps its own).
+
+    Parameters
+    ----------
+    temperature_k : ndarray
+        Temperature as read from a degC header [K] (NaN where missing).
+    codes : ndarray of int
+        Site code of each row.
+    t : ndarray of datetime64
+        Hour of each row.
+
+    Returns
+    -------
+    ndarray of bool
+        True on the rows of the runs found.
+    """
+    x = np.asarray(temperature_k, float) - ZERO_CELSIUS          # degC as read
+    n = len(x)
+    out = np.zeros(n, bool)
+    if n < 3:
+        return out
+    order = np.lexsort((t, codes))
+    xs, cs = x[order], np.asarray(codes)[order]
+    ts = np.asarray(t, "datetime64[h]")[order].astype(np.int64)
+    linked = np.r_[False, (cs[1:] == cs[:-1]) & (ts[1:] - ts[:-1] == 1)]   # hour i-1 -> i
+    prev = np.r_[np.nan, xs[:-1]]
+    # the degC hour next to an edge carried on by one hour (its trend from the hour
+    # beyond; the diurnal cycle is smooth), where that hour is linked too
+    prev2 = np.where(np.r_[False, linked[:-1]], np.r_[np.nan, np.nan, xs[:-2]], np.nan)
+    ahead = np.where(np.r_[linked[1:], False], np.r_[xs[1:], np.nan], np.nan)
+    on_rise = np.where(np.isfinite(prev2), 2 * prev - prev2, prev)
+    on_drop = np.where(np.isfinite(ahead), 2 * xs - ahead, xs)
+    with np.errstate(invalid="ignore"):
+        # the nearer of the two guesses (the hour itself, or carried on by its trend):
+        # a noisy logger's hour-to-hour scatter spoils the trend, a smooth one's diurnal
+        # slope spoils the hour itself
+        off_rise = np.fmin(np.abs(xs - convert_plain(prev, "degC", "degF")),
+                           np.abs(xs - convert_plain(on_rise, "degC", "degF")))
+        off_drop = np.fmin(np.abs(prev - convert_plain(xs, "degC", "degF")),
+                           np.abs(prev - convert_plain(on_drop, "degC", "degF")))
+        rise = linked & (xs - prev >= EDGE_JUMP_MIN) & (off_rise <= EDGE_TOL)
+        drop = linked & (prev - xs >= EDGE_JUMP_MIN) & (off_drop <= EDGE_TOL)
+    r_idx, d_idx = np.flatnonzero(rise), np.flatnonzero(drop)
+    if not len(r_idx) or not len(d_idx):
+        return out
+    k = np.searchsorted(d_idx, r_idx, side="right")           # the next drop of each rise
+    has = k < len(d_idx)
+    r_idx, d = r_idx[has], d_idx[k[has]]
+    nxt = np.searchsorted(r_idx, r_idx, side="right")         # the next rise
+    next_rise = np.where(nxt < len(r_idx), r_idx[np.minimum(nxt, len(r_idx) - 1)], n)
+    ok = (next_rise >= d) & (d - r_idx <= EDGE_MAX_HOURS) & (cs[r_idx] == cs[d - 1])
+    # the whole run must be consecutive hours of one site
+    gaps = np.concatenate([[0], np.cumsum(~linked)])
+    ok &= gaps[d] - gaps[r_idx + 1] == 0
+    r_idx, d = r_idx[ok], d[ok]
+    if not len(r_idx):
+        return out
+    csum = np.concatenate([[0.0], np.nancumsum(xs)])
+    ccnt = np.concatenate([[0], np.cumsum(np.isfinite(xs))])
+    dx = np.where(linked, xs - prev, np.nan)
+    csq = np.concatenate([[0.0], np.nancumsum(dx ** 2)])
+    cdn = np.concatenate([[0], np.cumsum(np.isfinite(dx))])
+
+    def mean(a, b, c=csum, k=ccnt):
+        with np.errstate(invalid="ignore", divide="ignore"):
+            return (c[b] - c[a]) / (k[b] - k[a])
+    lo = np.maximum(r_idx - EDGE_NEIGHBOUR_HOURS, 0)
+    hi = np.minimum(d + EDGE_NEIGHBOUR_HOURS, n)
+    same_lo = cs[lo] == cs[r_idx]
+    same_hi = cs[hi - 1] == cs[d]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        around = ((csum[r_idx] - csum[lo] + csum[hi] - csum[d])
+                  / (ccnt[r_idx] - ccnt[lo] + ccnt[hi] - ccnt[d]))
+        inside_f = convert_plain(mean(r_idx, d), "degF", "degC")   # the run read as degF
+        level = np.abs(inside_f - around) <= EDGE_MATCH_K
+        # the spread of hourly changes inside (without the rise) against outside
+        sd_in = np.sqrt(mean(r_idx + 1, d, csq, cdn))
+        sd_out = np.sqrt((csq[r_idx] - csq[lo + 1] + csq[hi] - csq[d + 1])
+                         / (cdn[r_idx] - cdn[lo + 1] + cdn[hi] - cdn[d + 1]))
+        spread = (d - r_idx < EDGE_SPREAD_HOURS) | (sd_in >= EDGE_SPREAD_RATIO * sd_out)
+    good = level & spread & same_lo & same_hi
+    mark = np.zeros(n + 1, int)
+    np.add.at(mark, r_idx[good], 1)
+    np.add.at(mark, d[good], -1)
+    out[order] = np.cumsum(mark[:-1]) > 0
+    return out
 
 
 def _edged(daily, bad) -> np.ndarray:

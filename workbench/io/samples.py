@@ -628,15 +628,18 @@ def read_air(path, catalogue, reference_state=None):
 def _air_slips(tab, ds, cols, keep) -> list[str]:
     """Notes on a likely unit slip that stays in range (:mod:`workbench.io.airslip`), on
     the rows of each unit of a column with a unit switch apart (:func:`unit_segments`);
-    rows of one sampler a unit factor off its other rows (:mod:`workbench.io.airstep`)."""
+    rows of one sampler a unit factor off its other rows (:mod:`workbench.io.airstep`),
+    or off the rest of its own record when it is the gas's only sampler in the file
+    (:mod:`workbench.io.airownstep`)."""
     from .airslip import air_slip_notes
+    from .airownstep import own_step_notes
     from .airstep import sampler_step_notes
     notes = []
     cells = {sp: tab.text(name)[keep] for sp, name in cols.items()}
     for idx, units in unit_segments(tab, cols, keep):
         part = ds if idx is None else ds.isel(period=idx)
         notes += air_slip_notes(part, units, tab.path.name)
-        notes += sampler_step_notes(part, units, tab.path.name,
-                                    cells if idx is None else
-                                    {sp: c[idx] for sp, c in cells.items()})
+        typed = cells if idx is None else {sp: c[idx] for sp, c in cells.items()}
+        notes += sampler_step_notes(part, units, tab.path.name, typed)
+        notes += own_step_notes(part, units, tab.path.name, typed)
     return notes
