@@ -19,7 +19,8 @@ import numpy as np
 import xarray as xr
 
 from . import __version__
-from .grid import DRY_SPECIES, compute_grid, default_block, make_periods, staged
+from .grid import (DRY_SPECIES, default_block, make_periods, output_names, staged,
+                   store_grid)
 from .grid_io import GridError, block_catalogue, describe, open_grid, read_block
 from .landuse import LAND_USE
 from .runfolder import OutputError, RunFolder, os_error_message
@@ -218,8 +219,8 @@ def missing_met_notes(path: Path, grid) -> list:
     return notes
 
 
-def write_grid_netcdf(ds: xr.Dataset, path: Path):
-    """Write (and compute, when lazy) the maps as NetCDF3 (scipy: no extra library)."""
+def _encoding(ds: xr.Dataset) -> dict:
+    """The encoding of grid.nc's variables (NaN as _FillValue of the maps, CF time)."""
     enc = {n: {"_FillValue": np.nan} for n in ds.data_vars if ds[n].dtype.kind == "f"}
     for name in ("time", "time_bnds"):
         enc[name] = {"units": "hours since 1970-01-01 00:00:00", "calendar": "standard",
@@ -228,7 +229,107 @@ def write_grid_netcdf(ds: xr.Dataset, path: Path):
         if name not in enc:
             enc[name] = {"_FillValue": None}
     enc["land_use"] = {"dtype": "int16", "_FillValue": np.int16(-1)}
-    ds.to_netcdf(path, engine="scipy", format="NETCDF3_64BIT", encoding=enc)
+    return enc
+
+
+def write_grid_netcdf(ds: xr.Dataset, path: Path):
+    """Write (and compute, when lazy) the maps as NetCDF3 (scipy: no extra library),
+    whole: every map is held in memory by the writer (:func:`create_grid_netcdf` writes
+    them block by block)."""
+    ds.to_netcdf(path, engine="scipy", format="NETCDF3_64BIT", encoding=_encoding(ds))
+
+
+class _AllButMaps:
+    """The writer given to :meth:`xarray.Dataset.dump_to_store`: writes every variable
+    but the maps (coordinates, bounds, land use), whose place in the file is kept for
+    :class:`MapFile`."""
+
+    def __init__(self, maps):
+        self.maps = set(maps)
+
+    def add(self, source, target, region=None):
+        if getattr(target, "variable_name", None) in self.maps:
+            return
+        target[region or ...] = np.asarray(source)
+
+
+class MapFile:
+    """The maps of grid.nc written in place, block by block.
+
+    ``maps[:, :, ys, xs] = values`` (variable, period, y, x; the contract of
+    :func:`dask.array.store`) encodes the block as xarray encodes the whole map
+    (:func:`xarray.conventions.encode_cf_variable`, the encoding of
+    :func:`write_grid_netcdf`) and writes it at its place in the file (NetCDF3 keeps a
+    variable's values contiguous, big-endian, at the offset its header gives) through a
+    memory map opened for the block's writes and closed after them: memory holds the
+    block, not the map.
+
+    Parameters
+    ----------
+    path : Path
+        A grid.nc made by :func:`create_grid_netcdf`.
+    ds : xarray.Dataset
+        Its Dataset (the maps' attributes and encoding).
+    names : list of str
+        The maps, in the order of the first axis of the values.
+    """
+
+    def __init__(self, path: Path, ds: xr.Dataset, names, encoding: dict):
+        from scipy.io import netcdf_file
+        self.path = Path(path)
+        self.names = list(names)
+        self.template = {n: ds[n].variable for n in self.names}
+        self.encoding = {n: encoding.get(n, {}) for n in self.names}
+        self.offsets, self.shapes, self.dtypes = {}, {}, {}
+        f = netcdf_file(self.path, "r", mmap=True)
+        try:
+            for n in self.names:
+                data = f.variables[n].data
+                root = data
+                while isinstance(root.base, np.ndarray):
+                    root = root.base
+                self.offsets[n] = (data.__array_interface__["data"][0]
+                                   - root.__array_interface__["data"][0])
+                self.shapes[n], self.dtypes[n] = data.shape, data.dtype.str
+                del data, root
+        finally:
+            f.close()
+
+    def __setitem__(self, key, values):
+        key = key if isinstance(key, tuple) else (key,)
+        key = key + (slice(None),) * (4 - len(key))
+        which = self.names[key[0]] if isinstance(key[0], slice) else [self.names[key[0]]]
+        values = np.asarray(values).reshape((len(which),) + np.shape(values)[-3:])
+        for k, name in enumerate(which):
+            var = self.template[name]
+            block = xr.Variable(var.dims, values[k], var.attrs, self.encoding[name])
+            coded = xr.conventions.encode_cf_variable(block, name=name).values
+            mm = None
+            try:
+                mm = np.memmap(self.path, dtype=self.dtypes[name], mode="r+",
+                               offset=self.offsets[name], shape=self.shapes[name])
+                mm[key[1:]] = coded
+            except OSError as exc:
+                raise OutputError(os_error_message(exc, self.path) + "; nothing was "
+                                  "written into the output folder") from exc
+            finally:
+                del mm                               # unmapped: the pages leave the process
+
+
+def create_grid_netcdf(ds: xr.Dataset, path: Path, names) -> MapFile:
+    """Write grid.nc but the values of the maps `names` (its header, coordinates, land
+    use, and the maps' place), then return the :class:`MapFile` that writes them block by
+    block.  The same bytes as :func:`write_grid_netcdf` once every block is written
+    (tested); the maps of `ds` may be a placeholder (``numpy.broadcast_to``: nothing is
+    read from them)."""
+    from xarray.backends import ScipyDataStore
+    enc = _encoding(ds)
+    store = ScipyDataStore(str(path), mode="w", format="NETCDF3_64BIT")
+    try:
+        ds.dump_to_store(store, writer=_AllButMaps(names), encoding=enc)
+    finally:
+        store.close()
+    return MapFile(path, ds, names, enc)
 
 
 def grid_paths(sc) -> dict:
@@ -304,8 +405,9 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
         processes (started and closed here, as ``workbench run --workers``).
     scheduler : str, optional
         Run them on the dask scheduler at this address (``tcp://host:8786``).  With
-        `workers` or `scheduler`, dask and distributed are needed (the ``scale`` extra)
-        and the maps are gathered into this process before grid.nc is written.
+        `workers` or `scheduler`, dask and distributed are needed (the ``scale`` extra);
+        each block's maps come back to this process as the block ends and are written
+        into grid.nc (:func:`workbench.grid.store_grid`, :class:`MapFile`).
 
     Returns
     -------
@@ -347,11 +449,9 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
         # inputs chunked across the blocks: a block-major scratch copy inside the
         # (incomplete) run folder, removed before the folder is committed
         with staged(grid, block, folder.path, say) as grid:
-            names, arr = compute_grid(grid, o["dry"], o["budget"], periods, sc.fixed_velocity,
-                                      block=block, use_dask=use_dask, progress=say)
+            names = output_names(grid.species)
             where = ""
-            if client is not None:             # the tasks run on the cluster; maps come back
-                arr = client.compute(arr).result()
+            if client is not None:             # the tasks run on the cluster
                 where = (f" on the dask scheduler at {scheduler}" if scheduler
                          else f" on a local dask cluster of {workers} workers")
             prov = provenance(sc, {"scenario": sc.path, **paths}, started,
@@ -361,16 +461,22 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
                        f"{' as dask tasks' if use_dask else ''}{where}); inputs: "
                        + "; ".join(f"{r} {v['path']} sha256 {v['sha256']}"
                                    for r, v in prov["inputs"].items()))
-            ds = grid_dataset(names, arr, grid, periods, history)
+            # the maps are not held here: grid.nc is written first but their values,
+            # and each block's values go to their place in it as the block ends
+            holder = np.broadcast_to(np.float64(np.nan),
+                                     (len(names), len(periods)) + tuple(grid.shape))
+            ds = grid_dataset(names, holder, grid, periods, history)
             ds.attrs["workbench_options"] = json.dumps(
                 {k: sc.resolved().get(k) for k in ("dry", "budget", "period", "grid")},
                 default=str)
             target = folder.path / GRID_FILE
             try:
-                write_grid_netcdf(ds, target)
+                maps = create_grid_netcdf(ds, target, names)
             except OSError as exc:
                 raise OutputError(os_error_message(exc, target) + "; nothing was written "
                                   "into the output folder") from exc
+            store_grid(grid, maps, o["dry"], o["budget"], periods, sc.fixed_velocity,
+                       block=block, use_dask=use_dask, client=client, progress=say)
             flags = flag_notes(target, grid)      # the scratch copy, if any, still here
         grid.notes.extend(missing := flags + missing_met_notes(target, grid))
         # after the last read of the inputs (grid.nc is written): the met and air grids
