@@ -12,9 +12,13 @@ the cells of a block are taken class by class, each with its own class as its on
 receptor.  So a cell whose met, concentrations and land use equal a site's gives that
 site's numbers.
 
-Blocks are independent: :func:`compute_grid` runs them one after the other in
-process, or as dask tasks (one ``dask.delayed`` task per block, assembled with
-``dask.array.block``), so that only one block's hourly inputs are in memory per worker.
+Blocks are independent: :func:`store_grid` runs them one after the other in
+process, or as dask tasks (one task per block), so that only one block's hourly inputs
+are in memory per worker, and writes each block's maps into its target (grid.nc,
+:class:`workbench.grid_output.MapFile`) as the block ends: on dask workers the result
+comes back as its task ends and is released there, so no process holds the maps of the
+whole grid.  :func:`compute_grid` gives the maps as one array (numpy, or a lazy dask
+array of ``dask.delayed`` blocks assembled with ``dask.array.block``).
 Inputs whose chunks span several blocks (chunked along time only) are first copied,
 each chunk read once, into a block-major scratch file (:func:`staged`,
 :mod:`workbench.grid_scratch`).

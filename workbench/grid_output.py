@@ -4,8 +4,10 @@
 the input grid's coordinates, auxiliary latitude/longitude and grid mapping copied
 from the land-use file; every variable with ``units``, ``long_name``,
 ``grid_mapping`` and ``cell_methods``; a ``history`` attribute naming the inputs (with
-their SHA-256), the options and the package version.  The folder is written whole or
-not at all (:class:`workbench.runfolder.RunFolder`), ``provenance.json`` last.
+their SHA-256), the options and the package version.  grid.nc is written first without
+the maps' values (:func:`create_grid_netcdf`), then each block's maps at their place as
+the block ends (:class:`MapFile`): the same bytes as xarray's writing of the whole maps.
+The folder is written whole or not at all (:class:`workbench.runfolder.RunFolder`), ``provenance.json`` last.
 """
 from __future__ import annotations
 
