@@ -151,11 +151,26 @@ def flag_reasons(grid, j: int, i: int) -> dict:
     return dict(sorted(out.items(), key=lambda kv: -kv[1]))
 
 
+def _over_periods(var: xr.DataArray, combine, each=None) -> np.ndarray:
+    """`combine` (np.add, np.logical_and) of ``each(values)`` over the periods of a
+    (time, y, x) map read back from grid.nc, one period at a time [the map's unit]: the
+    sum or the "every period" of the whole map, holding (y, x) planes only."""
+    out = None
+    for p in range(var.sizes["time"]):
+        plane = var.isel(time=p).values
+        plane = each(plane) if each else plane
+        out = plane if out is None else combine(out, plane)
+    if out is None:                              # no period: the empty sum, or "all"
+        shape = tuple(var.sizes[d] for d in var.dims[1:])
+        return np.zeros(shape) if combine is np.add else np.ones(shape, bool)
+    return out
+
+
 def flag_notes(path: Path, grid) -> list:
     """A note on the met records that failed a plausibility check: how many, in how many
     cells, and the reasons at the cell with the most (read again, one cell)."""
     with xr.open_dataset(path) as ds:
-        flagged = ds["met_flagged_hours"].values.sum(axis=0)
+        flagged = _over_periods(ds["met_flagged_hours"], np.add)
         ydim, xdim = grid.dims
         ycoord = ds[ydim].values if ydim in ds.coords else np.arange(grid.shape[0])
         xcoord = ds[xdim].values if xdim in ds.coords else np.arange(grid.shape[1])
@@ -183,16 +198,18 @@ def missing_met_notes(path: Path, grid) -> list:
     with xr.open_dataset(path) as ds:
         if "met_missing_hours" not in ds:
             return []
-        miss = ds["met_missing_hours"].values.sum(axis=0)
-        vd = [ds[n].values for n in ds.data_vars if n.startswith("vd_")]
-        coverage = {n[len("flux_coverage_"):]: ds[n].values for n in ds.data_vars
-                    if n.startswith("flux_coverage_")}
+        miss = _over_periods(ds["met_missing_hours"], np.add)
+        # each map read a period at a time: (y, x) planes in memory, not whole maps
+        vd = [_over_periods(ds[n], np.logical_and, np.isnan) for n in ds.data_vars
+              if n.startswith("vd_")]
+        coverage = {n[len("flux_coverage_"):]: _over_periods(
+            ds[n], np.logical_and, lambda c: np.nan_to_num(c) == 0)
+            for n in ds.data_vars if n.startswith("flux_coverage_")}
         ydim, xdim = grid.dims
         ycoord = ds[ydim].values if ydim in ds.coords else np.arange(grid.shape[0])
         xcoord = ds[xdim].values if xdim in ds.coords else np.arange(grid.shape[1])
     has_class = np.array([c is not None for c in grid.classes.reshape(-1)]).reshape(grid.shape)
-    no_vd = has_class & (np.all([np.all(np.isnan(v), axis=0) for v in vd], axis=0) if vd
-                         else np.zeros(grid.shape, bool))
+    no_vd = has_class & (np.all(vd, axis=0) if vd else np.zeros(grid.shape, bool))
     some = has_class & ~no_vd & (miss > 0)
     notes = []
     if no_vd.any():
@@ -205,8 +222,7 @@ def missing_met_notes(path: Path, grid) -> list:
                      f"at any hour (a required variable missing, _FillValue or masked "
                      f"throughout; e.g. {where}): no deposition velocity, NaN in their vd_, "
                      "dry_ maps; counted in met_missing_hours")
-    no_air = {sp: int((has_class & ~no_vd & np.all(np.nan_to_num(c) == 0, axis=0)).sum())
-              for sp, c in coverage.items()}
+    no_air = {sp: int((has_class & ~no_vd & zero).sum()) for sp, zero in coverage.items()}
     no_air = {sp: n for sp, n in no_air.items() if n}
     if no_air:
         notes.append(f"{grid.paths['air'].name}: cells with a class and a Vd but no "
