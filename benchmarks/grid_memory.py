@@ -12,7 +12,8 @@ and as NetCDF3 (classic, as the demo writes it).  A measurement, not a test.
     python benchmarks/grid_memory.py --run DIR --n 20 --n 60 --n 100 --what dask
 
 Each measurement runs in a fresh process (`--child`).  ``--what read``: `read_block` of
-the first block alone; ``block``: `block_result` of the first block; ``grid``: every
+the first block alone; ``block``: `block_result` of the first block; ``copy``: the
+block-major scratch copy of the time-chunked met alone (`grid.staged`); ``grid``: every
 block in process (`compute_grid`); ``dask``: every block as a dask task on a local cluster
 of 2 single-threaded worker processes (as ``workbench grid --workers 2``), each worker's
 idle resident set before the blocks and its peak (VmHWM) after them, and the most block
@@ -87,6 +88,9 @@ def child(folder: Path, what: str, trace: bool, block: int):
         read_block(grid, ys, xs, block_catalogue(grid, ys, xs))
     elif what == "block":
         g.block_result(grid, ys, xs, *args)
+    elif what == "copy":                 # the block-major scratch copy alone
+        with g.staged(grid, block):
+            pass
     elif what == "dask":
         workers = _on_dask(grid, args, block, out_workers := {})
     else:
@@ -204,7 +208,8 @@ def main(argv=None) -> int:
     p.add_argument("--n", type=int, action="append", help="cells a side (repeatable)")
     p.add_argument("--months", type=int, default=3)
     p.add_argument("--layout", choices=("nc4", "nc3"), default="nc4")
-    p.add_argument("--what", choices=("read", "block", "grid", "dask"), default="block")
+    p.add_argument("--what", choices=("read", "block", "copy", "grid", "dask"),
+                   default="block")
     p.add_argument("--block", type=int, default=0, help="cells a block side (0: the default)")
     p.add_argument("--trace", action="store_true")
     p.add_argument("--repeat", type=int, default=1)
