@@ -7,7 +7,8 @@ from the land-use file; every variable with ``units``, ``long_name``,
 their SHA-256), the options and the package version.  grid.nc is written first without
 the maps' values (:func:`create_grid_netcdf`), then each block's maps at their place as
 the block ends (:class:`MapFile`): the same bytes as xarray's writing of the whole maps.
-The folder is written whole or not at all (:class:`workbench.runfolder.RunFolder`), ``provenance.json`` last.
+The folder is written whole or not at all (:class:`workbench.runfolder.RunFolder`),
+``provenance.json`` last.
 """
 from __future__ import annotations
 
