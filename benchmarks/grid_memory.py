@@ -12,10 +12,12 @@ and as NetCDF3 (classic, as the demo writes it).  A measurement, not a test.
     python benchmarks/grid_memory.py --run DIR --n 20 --n 60 --n 100 --what dask
 
 Each measurement runs in a fresh process (`--child`).  ``--what read``: `read_block` of
-the first block alone; ``block``: `block_result` of the first block; ``grid``: every
+the first block alone; ``block``: `block_result` of the first block; ``copy``: the
+block-major scratch copy of the time-chunked met alone (`grid.staged`); ``grid``: every
 block in process (`compute_grid`); ``dask``: every block as a dask task on a local cluster
 of 2 single-threaded worker processes (as ``workbench grid --workers 2``), each worker's
-idle resident set before the blocks and its peak (VmHWM) after them.  Printed: the process's peak resident set (VmHWM),
+idle resident set before the blocks and its peak (VmHWM) after them, and the most block
+results held on the workers at once (a scheduler plugin).  Printed: the process's peak resident set (VmHWM),
 its resident set before the measured part (imports and the open grid), the difference
 ("above base"), the resident set after each block (``grid``: growth across blocks), CPU,
 and the load average, then the ratio of each size's peak above base to the first size's; ``--trace`` adds the tracemalloc peak (slower).  Report ratios of
@@ -86,6 +88,9 @@ def child(folder: Path, what: str, trace: bool, block: int):
         read_block(grid, ys, xs, block_catalogue(grid, ys, xs))
     elif what == "block":
         g.block_result(grid, ys, xs, *args)
+    elif what == "copy":                 # the block-major scratch copy alone
+        with g.staged(grid, block):
+            pass
     elif what == "dask":
         workers = _on_dask(grid, args, block, out_workers := {})
     else:
@@ -125,11 +130,25 @@ def _on_dask(grid, args, block, out: dict) -> int:
         client.wait_for_workers(2)
         client.run(_warm)            # imports and one tiny engine call before the base line
         base = client.run(_worker_status)
+        client.register_plugin(HeldResults())
         with g.staged(grid, block) as staged:
-            names, arr = g.compute_grid(staged, *args, block=block, use_dask=True)
-            client.compute(arr).result()
+            if hasattr(g, "store_grid"):          # each block into grid.nc as it ends
+                import tempfile
+                import numpy as np
+                from workbench.grid_output import create_grid_netcdf, grid_dataset
+                names = g.output_names(grid.species)
+                holder = np.broadcast_to(np.float64(np.nan),
+                                         (len(names), len(args[2])) + tuple(grid.shape))
+                with tempfile.TemporaryDirectory(prefix="grid-memory-") as tmp:
+                    maps = create_grid_netcdf(grid_dataset(names, holder, grid, args[2], ""),
+                                              Path(tmp) / "grid.nc", names)
+                    g.store_grid(staged, maps, *args, block=block, client=client)
+            else:                                 # the code before: one dask array
+                names, arr = g.compute_grid(staged, *args, block=block, use_dask=True)
+                client.compute(arr).result()
         done = client.run(_worker_status)
         tasks = client.run(_tasks_done)
+        out["block_results_held_at_most"] = client.run_on_scheduler(_held)
     finally:
         close_client(client)
     keys = sorted(base)
@@ -140,6 +159,33 @@ def _on_dask(grid, args, block, out: dict) -> int:
     out["worker_tasks"] = [tasks[k] for k in keys]
     out["blocks"] = sum(len(r) for r in g.blocks(grid.shape, block))
     return len(keys)
+
+
+try:
+    from distributed.diagnostics.plugin import SchedulerPlugin
+except ImportError:                      # the dask measurement needs the scale extra
+    SchedulerPlugin = object
+
+
+class HeldResults(SchedulerPlugin):
+    """Scheduler plugin: the most results of tasks (any key: the blocks' and, in the code
+    before, their concatenation's) in memory on the workers at once."""
+
+    name = "held-block-results"
+
+    def __init__(self):
+        self.now, self.most = set(), 0
+
+    def transition(self, key, start, finish, *args, **kwargs):
+        if finish == "memory":
+            self.now.add(key)
+            self.most = max(self.most, len(self.now))
+        elif start == "memory":
+            self.now.discard(key)
+
+
+def _held(dask_scheduler=None):
+    return dask_scheduler.plugins[HeldResults.name].most
 
 
 def _tasks_done(dask_worker=None):
@@ -162,7 +208,8 @@ def main(argv=None) -> int:
     p.add_argument("--n", type=int, action="append", help="cells a side (repeatable)")
     p.add_argument("--months", type=int, default=3)
     p.add_argument("--layout", choices=("nc4", "nc3"), default="nc4")
-    p.add_argument("--what", choices=("read", "block", "grid", "dask"), default="block")
+    p.add_argument("--what", choices=("read", "block", "copy", "grid", "dask"),
+                   default="block")
     p.add_argument("--block", type=int, default=0, help="cells a block side (0: the default)")
     p.add_argument("--trace", action="store_true")
     p.add_argument("--repeat", type=int, default=1)

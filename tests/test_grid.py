@@ -531,7 +531,7 @@ def test_grid_input_edited_keeping_size_and_mtime_is_named(site, tmp_path, monke
         '[period]\nresolution = "month"\n')
     lu = Path(paths["land_use"])
     before = hashlib.sha256(lu.read_bytes()).hexdigest()     # hashlib, FIPS 180-4
-    real = grid_output.compute_grid
+    real = grid_output.store_grid
 
     def edit_then_compute(*args, **kw):
         st = os.stat(lu)
@@ -541,7 +541,7 @@ def test_grid_input_edited_keeping_size_and_mtime_is_named(site, tmp_path, monke
         os.utime(lu, ns=(st.st_atime_ns, st.st_mtime_ns))
         assert (os.stat(lu).st_size, os.stat(lu).st_mtime_ns) == (st.st_size, st.st_mtime_ns)
         return real(*args, **kw)
-    monkeypatch.setattr(grid_output, "compute_grid", edit_then_compute)
+    monkeypatch.setattr(grid_output, "store_grid", edit_then_compute)
     assert main(["grid", str(tmp_path / "in" / "scenario.toml"), "--out",
                  str(tmp_path / "out"), "--quiet", "--block", "6"]) == 0
     prov = json.loads((tmp_path / "out" / "provenance.json").read_text())
@@ -569,16 +569,16 @@ def test_grid_input_edited_while_the_blocks_read_it_refuses_the_run(site, tmp_pa
         '[grid]\nmet = "met.nc"\nair = "air.nc"\nland_use = "land_use.nc"\n'
         '[period]\nresolution = "month"\n')
     target = Path(paths[role])
-    real = grid_output.write_grid_netcdf
+    real = grid_output.store_grid         # the blocks read and write grid.nc together
 
-    def edit_then_write(ds, path):
+    def edit_then_write(*args, **kw):
         st = os.stat(target)
         raw = bytearray(target.read_bytes())
         raw[-1] ^= 0x01                                   # one byte, size and time kept
         target.write_bytes(bytes(raw))
         os.utime(target, ns=(st.st_atime_ns, st.st_mtime_ns))
-        return real(ds, path)
-    monkeypatch.setattr(grid_output, "write_grid_netcdf", edit_then_write)
+        return real(*args, **kw)
+    monkeypatch.setattr(grid_output, "store_grid", edit_then_write)
     assert main(["grid", str(tmp_path / "in" / "scenario.toml"), "--out",
                  str(tmp_path / "out"), "--quiet", "--block", "6"]) != 0
     err = capsys.readouterr().err

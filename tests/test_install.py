@@ -23,7 +23,8 @@ ROOT = Path(__file__).resolve().parents[1]
 PACKAGE = ROOT / "workbench"
 PYPROJECT = tomllib.loads((ROOT / "pyproject.toml").read_text())
 #: Imported only inside the functions that need them, from an extra.
-LAZY = {"dask": "scale", "distributed": "scale", "kaleido": "export", "zarr": "zarr"}
+LAZY = {"dask": "scale", "distributed": "scale", "kaleido": "export", "zarr": "zarr",
+        "netCDF4": "netcdf4"}
 
 
 def _norm(name: str) -> str:

@@ -12,9 +12,13 @@ the cells of a block are taken class by class, each with its own class as its on
 receptor.  So a cell whose met, concentrations and land use equal a site's gives that
 site's numbers.
 
-Blocks are independent: :func:`compute_grid` runs them one after the other in
-process, or as dask tasks (one ``dask.delayed`` task per block, assembled with
-``dask.array.block``), so that only one block's hourly inputs are in memory per worker.
+Blocks are independent: :func:`store_grid` runs them one after the other in
+process, or as dask tasks (one task per block), so that only one block's hourly inputs
+are in memory per worker, and writes each block's maps into its target (grid.nc,
+:class:`workbench.grid_output.MapFile`) as the block ends: on dask workers the result
+comes back as its task ends and is released there, so no process holds the maps of the
+whole grid.  :func:`compute_grid` gives the maps as one array (numpy, or a lazy dask
+array of ``dask.delayed`` blocks assembled with ``dask.array.block``).
 Inputs whose chunks span several blocks (chunked along time only) are first copied,
 each chunk read once, into a block-major scratch file (:func:`staged`,
 :mod:`workbench.grid_scratch`).
@@ -358,7 +362,9 @@ def staged(grid: Grid, block=None, folder=None, say=None):
 
 def compute_grid(grid: Grid, dry_options, budget_options, periods, fixed_velocity=None,
                  block=None, use_dask=False, progress=None):
-    """Every output of every cell, block by block.
+    """Every output of every cell, block by block, as one array (the maps of the whole
+    grid in memory: for a run folder :func:`store_grid` writes each block into grid.nc
+    as it ends instead).
 
     Parameters
     ----------
@@ -400,12 +406,93 @@ def compute_grid(grid: Grid, dry_options, budget_options, periods, fixed_velocit
                                          dtype=float) for ys, xs in row] for row in layout])
         return names, arr
     arr = np.full((n_v, n_p) + grid.shape, np.nan)
-    done, total = 0, sum(len(r) for r in layout)
-    with (staged(grid, block) if not grid.scratch else contextlib.nullcontext(grid)) as g:
-        for row in layout:
-            for ys, xs in row:
-                arr[:, :, ys, xs] = block_result(g, ys, xs, *args)
-                done += 1
-                if progress:
-                    progress(f"block {done}/{total}")
+    store_grid(grid, arr, dry_options, budget_options, periods, fixed_velocity, block=block,
+               progress=progress)
     return names, arr
+
+
+#: Block tasks in flight per dask worker, at most [-] (one running, one queued): a
+#: block's result leaves its worker as soon as it ends, so a worker holds at most this
+#: many results, whatever the grid's size (as :func:`workbench.blocks.run_blocks`).
+BLOCKS_IN_FLIGHT_PER_WORKER = 2
+
+
+def store_grid(grid: Grid, target, dry_options, budget_options, periods, fixed_velocity=None,
+               block=None, use_dask=False, client=None, progress=None) -> list:
+    """Every output of every cell, each block written into `target` as it ends and let go.
+
+    Parameters
+    ----------
+    grid : Grid
+    target : array-like
+        Takes ``target[:, :, ys, xs] = values`` of a block, (variable, period, y, x) in
+        the order of :func:`output_names` (a numpy array, or
+        :class:`workbench.grid_output.MapFile`: grid.nc written in place, the contract of
+        :func:`dask.array.store`).
+    dry_options, budget_options, periods, fixed_velocity, block
+        As for :func:`compute_grid`.
+    use_dask : bool
+        Without `client`: the blocks as dask tasks on the threaded scheduler, stored by
+        :func:`dask.array.store` (each block's result written as it ends).
+    client : distributed.Client, optional
+        Each block a task on this cluster, at most
+        :data:`BLOCKS_IN_FLIGHT_PER_WORKER` a worker at once; each result comes back to
+        this process as its task ends (``distributed.as_completed``), is written into
+        `target` and released on the worker.  So a worker holds a few blocks' results,
+        not every block's until the last ends, and this process one block's.
+    progress : callable, optional
+        Called with a short text after each block (in process and with `client`).
+
+    Returns
+    -------
+    list of str
+        The output names, in the order of the first axis of `target`.
+    """
+    _check_options(dry_options)
+    names = output_names(grid.species)
+    block = default_block(len(grid.times)) if block is None else block
+    layout = blocks(grid.shape, block)
+    flat = [b for row in layout for b in row]
+    args = (dry_options, budget_options, periods, fixed_velocity)
+    say = progress or (lambda text: None)
+    if client is not None:
+        from .optional import require
+        distributed = require("distributed")
+        n_workers = max(1, len(client.scheduler_info().get("workers", {})))
+        todo, futures = iter(flat), {}
+
+        def submit():
+            nxt = next(todo, None)
+            if nxt is None:
+                return None
+            ys, xs = nxt
+            # each task carries its block's part of the grid (grid_io.cut)
+            fut = client.submit(block_result, cut(grid, ys, xs), ys, xs, *args, pure=False)
+            futures[fut] = nxt
+            return fut
+
+        first = [f for f in (submit() for _ in range(BLOCKS_IN_FLIGHT_PER_WORKER * n_workers))
+                 if f is not None]
+        queue = distributed.as_completed(first)
+        for n, fut in enumerate(queue, 1):
+            ys, xs = futures.pop(fut)
+            target[:, :, ys, xs] = fut.result()     # a failed block raises its error here
+            fut.release()                          # its result leaves the worker
+            del fut
+            say(f"block {n}/{len(flat)}")
+            nxt = submit()
+            if nxt is not None:
+                queue.add(nxt)
+        return names
+    if use_dask:
+        from .optional import require
+        da = require("dask.array")
+        _, arr = compute_grid(grid, *args, block=block, use_dask=True)
+        # dask's own region writes: each block's store task follows its block
+        da.store(arr, target, lock=True, scheduler="threads")
+        return names
+    with (staged(grid, block) if not grid.scratch else contextlib.nullcontext(grid)) as g:
+        for done, (ys, xs) in enumerate(flat, 1):
+            target[:, :, ys, xs] = block_result(g, ys, xs, *args)
+            say(f"block {done}/{len(flat)}")
+    return names

@@ -4,8 +4,11 @@
 the input grid's coordinates, auxiliary latitude/longitude and grid mapping copied
 from the land-use file; every variable with ``units``, ``long_name``,
 ``grid_mapping`` and ``cell_methods``; a ``history`` attribute naming the inputs (with
-their SHA-256), the options and the package version.  The folder is written whole or
-not at all (:class:`workbench.runfolder.RunFolder`), ``provenance.json`` last.
+their SHA-256), the options and the package version.  grid.nc is written first without
+the maps' values (:func:`create_grid_netcdf`), then each block's maps at their place as
+the block ends (:class:`MapFile`): the same bytes as xarray's writing of the whole maps.
+The folder is written whole or not at all (:class:`workbench.runfolder.RunFolder`),
+``provenance.json`` last.
 """
 from __future__ import annotations
 
@@ -19,7 +22,8 @@ import numpy as np
 import xarray as xr
 
 from . import __version__
-from .grid import DRY_SPECIES, compute_grid, default_block, make_periods, staged
+from .grid import (DRY_SPECIES, default_block, make_periods, output_names, staged,
+                   store_grid)
 from .grid_io import GridError, block_catalogue, describe, open_grid, read_block
 from .landuse import LAND_USE
 from .runfolder import OutputError, RunFolder, os_error_message
@@ -148,11 +152,26 @@ def flag_reasons(grid, j: int, i: int) -> dict:
     return dict(sorted(out.items(), key=lambda kv: -kv[1]))
 
 
+def _over_periods(var: xr.DataArray, combine, each=None) -> np.ndarray:
+    """`combine` (np.add, np.logical_and) of ``each(values)`` over the periods of a
+    (time, y, x) map read back from grid.nc, one period at a time [the map's unit]: the
+    sum or the "every period" of the whole map, holding (y, x) planes only."""
+    out = None
+    for p in range(var.sizes["time"]):
+        plane = var.isel(time=p).values
+        plane = each(plane) if each else plane
+        out = plane if out is None else combine(out, plane)
+    if out is None:                              # no period: the empty sum, or "all"
+        shape = tuple(var.sizes[d] for d in var.dims[1:])
+        return np.zeros(shape) if combine is np.add else np.ones(shape, bool)
+    return out
+
+
 def flag_notes(path: Path, grid) -> list:
     """A note on the met records that failed a plausibility check: how many, in how many
     cells, and the reasons at the cell with the most (read again, one cell)."""
     with xr.open_dataset(path) as ds:
-        flagged = ds["met_flagged_hours"].values.sum(axis=0)
+        flagged = _over_periods(ds["met_flagged_hours"], np.add)
         ydim, xdim = grid.dims
         ycoord = ds[ydim].values if ydim in ds.coords else np.arange(grid.shape[0])
         xcoord = ds[xdim].values if xdim in ds.coords else np.arange(grid.shape[1])
@@ -180,16 +199,18 @@ def missing_met_notes(path: Path, grid) -> list:
     with xr.open_dataset(path) as ds:
         if "met_missing_hours" not in ds:
             return []
-        miss = ds["met_missing_hours"].values.sum(axis=0)
-        vd = [ds[n].values for n in ds.data_vars if n.startswith("vd_")]
-        coverage = {n[len("flux_coverage_"):]: ds[n].values for n in ds.data_vars
-                    if n.startswith("flux_coverage_")}
+        miss = _over_periods(ds["met_missing_hours"], np.add)
+        # each map read a period at a time: (y, x) planes in memory, not whole maps
+        vd = [_over_periods(ds[n], np.logical_and, np.isnan) for n in ds.data_vars
+              if n.startswith("vd_")]
+        coverage = {n[len("flux_coverage_"):]: _over_periods(
+            ds[n], np.logical_and, lambda c: np.nan_to_num(c) == 0)
+            for n in ds.data_vars if n.startswith("flux_coverage_")}
         ydim, xdim = grid.dims
         ycoord = ds[ydim].values if ydim in ds.coords else np.arange(grid.shape[0])
         xcoord = ds[xdim].values if xdim in ds.coords else np.arange(grid.shape[1])
     has_class = np.array([c is not None for c in grid.classes.reshape(-1)]).reshape(grid.shape)
-    no_vd = has_class & (np.all([np.all(np.isnan(v), axis=0) for v in vd], axis=0) if vd
-                         else np.zeros(grid.shape, bool))
+    no_vd = has_class & (np.all(vd, axis=0) if vd else np.zeros(grid.shape, bool))
     some = has_class & ~no_vd & (miss > 0)
     notes = []
     if no_vd.any():
@@ -202,8 +223,7 @@ def missing_met_notes(path: Path, grid) -> list:
                      f"at any hour (a required variable missing, _FillValue or masked "
                      f"throughout; e.g. {where}): no deposition velocity, NaN in their vd_, "
                      "dry_ maps; counted in met_missing_hours")
-    no_air = {sp: int((has_class & ~no_vd & np.all(np.nan_to_num(c) == 0, axis=0)).sum())
-              for sp, c in coverage.items()}
+    no_air = {sp: int((has_class & ~no_vd & zero).sum()) for sp, zero in coverage.items()}
     no_air = {sp: n for sp, n in no_air.items() if n}
     if no_air:
         notes.append(f"{grid.paths['air'].name}: cells with a class and a Vd but no "
@@ -218,8 +238,8 @@ def missing_met_notes(path: Path, grid) -> list:
     return notes
 
 
-def write_grid_netcdf(ds: xr.Dataset, path: Path):
-    """Write (and compute, when lazy) the maps as NetCDF3 (scipy: no extra library)."""
+def _encoding(ds: xr.Dataset) -> dict:
+    """The encoding of grid.nc's variables (NaN as _FillValue of the maps, CF time)."""
     enc = {n: {"_FillValue": np.nan} for n in ds.data_vars if ds[n].dtype.kind == "f"}
     for name in ("time", "time_bnds"):
         enc[name] = {"units": "hours since 1970-01-01 00:00:00", "calendar": "standard",
@@ -228,7 +248,107 @@ def write_grid_netcdf(ds: xr.Dataset, path: Path):
         if name not in enc:
             enc[name] = {"_FillValue": None}
     enc["land_use"] = {"dtype": "int16", "_FillValue": np.int16(-1)}
-    ds.to_netcdf(path, engine="scipy", format="NETCDF3_64BIT", encoding=enc)
+    return enc
+
+
+def write_grid_netcdf(ds: xr.Dataset, path: Path):
+    """Write (and compute, when lazy) the maps as NetCDF3 (scipy: no extra library),
+    whole: every map is held in memory by the writer (:func:`create_grid_netcdf` writes
+    them block by block)."""
+    ds.to_netcdf(path, engine="scipy", format="NETCDF3_64BIT", encoding=_encoding(ds))
+
+
+class _AllButMaps:
+    """The writer given to :meth:`xarray.Dataset.dump_to_store`: writes every variable
+    but the maps (coordinates, bounds, land use), whose place in the file is kept for
+    :class:`MapFile`."""
+
+    def __init__(self, maps):
+        self.maps = set(maps)
+
+    def add(self, source, target, region=None):
+        if getattr(target, "variable_name", None) in self.maps:
+            return
+        target[region or ...] = np.asarray(source)
+
+
+class MapFile:
+    """The maps of grid.nc written in place, block by block.
+
+    ``maps[:, :, ys, xs] = values`` (variable, period, y, x; the contract of
+    :func:`dask.array.store`) encodes the block as xarray encodes the whole map
+    (:func:`xarray.conventions.encode_cf_variable`, the encoding of
+    :func:`write_grid_netcdf`) and writes it at its place in the file (NetCDF3 keeps a
+    variable's values contiguous, big-endian, at the offset its header gives) through a
+    memory map opened for the block's writes and closed after them: memory holds the
+    block, not the map.
+
+    Parameters
+    ----------
+    path : Path
+        A grid.nc made by :func:`create_grid_netcdf`.
+    ds : xarray.Dataset
+        Its Dataset (the maps' attributes and encoding).
+    names : list of str
+        The maps, in the order of the first axis of the values.
+    """
+
+    def __init__(self, path: Path, ds: xr.Dataset, names, encoding: dict):
+        from scipy.io import netcdf_file
+        self.path = Path(path)
+        self.names = list(names)
+        self.template = {n: ds[n].variable for n in self.names}
+        self.encoding = {n: encoding.get(n, {}) for n in self.names}
+        self.offsets, self.shapes, self.dtypes = {}, {}, {}
+        f = netcdf_file(self.path, "r", mmap=True)
+        try:
+            for n in self.names:
+                data = f.variables[n].data
+                root = data
+                while isinstance(root.base, np.ndarray):
+                    root = root.base
+                self.offsets[n] = (data.__array_interface__["data"][0]
+                                   - root.__array_interface__["data"][0])
+                self.shapes[n], self.dtypes[n] = data.shape, data.dtype.str
+                del data, root
+        finally:
+            f.close()
+
+    def __setitem__(self, key, values):
+        key = key if isinstance(key, tuple) else (key,)
+        key = key + (slice(None),) * (4 - len(key))
+        which = self.names[key[0]] if isinstance(key[0], slice) else [self.names[key[0]]]
+        values = np.asarray(values).reshape((len(which),) + np.shape(values)[-3:])
+        for k, name in enumerate(which):
+            var = self.template[name]
+            block = xr.Variable(var.dims, values[k], var.attrs, self.encoding[name])
+            coded = xr.conventions.encode_cf_variable(block, name=name).values
+            mm = None
+            try:
+                mm = np.memmap(self.path, dtype=self.dtypes[name], mode="r+",
+                               offset=self.offsets[name], shape=self.shapes[name])
+                mm[key[1:]] = coded
+            except OSError as exc:
+                raise OutputError(os_error_message(exc, self.path) + "; nothing was "
+                                  "written into the output folder") from exc
+            finally:
+                del mm                               # unmapped: the pages leave the process
+
+
+def create_grid_netcdf(ds: xr.Dataset, path: Path, names) -> MapFile:
+    """Write grid.nc but the values of the maps `names` (its header, coordinates, land
+    use, and the maps' place), then return the :class:`MapFile` that writes them block by
+    block.  The same bytes as :func:`write_grid_netcdf` once every block is written
+    (tested); the maps of `ds` may be a placeholder (``numpy.broadcast_to``: nothing is
+    read from them)."""
+    from xarray.backends import ScipyDataStore
+    enc = _encoding(ds)
+    store = ScipyDataStore(str(path), mode="w", format="NETCDF3_64BIT")
+    try:
+        ds.dump_to_store(store, writer=_AllButMaps(names), encoding=enc)
+    finally:
+        store.close()
+    return MapFile(path, ds, names, enc)
 
 
 def grid_paths(sc) -> dict:
@@ -304,8 +424,9 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
         processes (started and closed here, as ``workbench run --workers``).
     scheduler : str, optional
         Run them on the dask scheduler at this address (``tcp://host:8786``).  With
-        `workers` or `scheduler`, dask and distributed are needed (the ``scale`` extra)
-        and the maps are gathered into this process before grid.nc is written.
+        `workers` or `scheduler`, dask and distributed are needed (the ``scale`` extra);
+        each block's maps come back to this process as the block ends and are written
+        into grid.nc (:func:`workbench.grid.store_grid`, :class:`MapFile`).
 
     Returns
     -------
@@ -347,11 +468,9 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
         # inputs chunked across the blocks: a block-major scratch copy inside the
         # (incomplete) run folder, removed before the folder is committed
         with staged(grid, block, folder.path, say) as grid:
-            names, arr = compute_grid(grid, o["dry"], o["budget"], periods, sc.fixed_velocity,
-                                      block=block, use_dask=use_dask, progress=say)
+            names = output_names(grid.species)
             where = ""
-            if client is not None:             # the tasks run on the cluster; maps come back
-                arr = client.compute(arr).result()
+            if client is not None:             # the tasks run on the cluster
                 where = (f" on the dask scheduler at {scheduler}" if scheduler
                          else f" on a local dask cluster of {workers} workers")
             prov = provenance(sc, {"scenario": sc.path, **paths}, started,
@@ -361,16 +480,22 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
                        f"{' as dask tasks' if use_dask else ''}{where}); inputs: "
                        + "; ".join(f"{r} {v['path']} sha256 {v['sha256']}"
                                    for r, v in prov["inputs"].items()))
-            ds = grid_dataset(names, arr, grid, periods, history)
+            # the maps are not held here: grid.nc is written first but their values,
+            # and each block's values go to their place in it as the block ends
+            holder = np.broadcast_to(np.float64(np.nan),
+                                     (len(names), len(periods)) + tuple(grid.shape))
+            ds = grid_dataset(names, holder, grid, periods, history)
             ds.attrs["workbench_options"] = json.dumps(
                 {k: sc.resolved().get(k) for k in ("dry", "budget", "period", "grid")},
                 default=str)
             target = folder.path / GRID_FILE
             try:
-                write_grid_netcdf(ds, target)
+                maps = create_grid_netcdf(ds, target, names)
             except OSError as exc:
                 raise OutputError(os_error_message(exc, target) + "; nothing was written "
                                   "into the output folder") from exc
+            store_grid(grid, maps, o["dry"], o["budget"], periods, sc.fixed_velocity,
+                       block=block, use_dask=use_dask, client=client, progress=say)
             flags = flag_notes(target, grid)      # the scratch copy, if any, still here
         grid.notes.extend(missing := flags + missing_met_notes(target, grid))
         # after the last read of the inputs (grid.nc is written): the met and air grids

@@ -206,6 +206,31 @@ def _copy_variable(raw, name, dims, layout, n_t, step, path, file):
     return str(file), dt.str
 
 
+@contextlib.contextmanager
+def _no_chunk_cache(path):
+    """``with _no_chunk_cache(path):`` NetCDF4 files opened inside keep no chunk cache
+    (netCDF4's :func:`netCDF4.set_chunk_cache`, restored after).  The copy reads each
+    chunk once and whole, so a cache only held one more decompressed chunk: with a
+    chunk under the default cache (64 MiB) the copy of a 100 x 100 grid's month chunk
+    (29 MB) peaked at 149 MB above base, about five chunks; without, HDF5 decompresses
+    the chunk straight into the values read (docs/performance.md, "Grid maps
+    streamed")."""
+    from .io.zarrstore import is_zarr_path
+    try:
+        import netCDF4
+    except ImportError:
+        netCDF4 = None
+    if netCDF4 is None or is_zarr_path(path):
+        yield
+        return
+    before = netCDF4.get_chunk_cache()
+    netCDF4.set_chunk_cache(0, *before[1:])
+    try:
+        yield
+    finally:
+        netCDF4.set_chunk_cache(*before)
+
+
 def _disk_error(exc, file, nbytes) -> OutputError:
     return OutputError(os_error_message(exc, file, "write the scratch copy")
                        + f" (the block-major copy of a time-chunked input, "
@@ -261,7 +286,7 @@ def block_major(grid, layout, folder=None, say=None):
                 # the file opened anew for each variable: the HDF5 chunk cache of a
                 # variable (up to 64 MB by default, useless here: each chunk is read
                 # once) is freed with it, so the copy holds one variable's, not all
-                with _open(path, role) as raw:
+                with _no_chunk_cache(path), _open(path, role) as raw:
                     step = chunk_shape(raw[name], grid.dims)[0]
                     files[name] = _copy_variable(raw, name, grid.dims, flat, n_t, step, path,
                                                  made / f"{role}.{name}.bin")
