@@ -262,7 +262,7 @@ class SiteExplorer(SavedText, widgets.VBox):
             from .uncertainty_band import with_range       # 5-95 % when [uncertainty] draws > 0
             return with_range(figures.budget_bars_spec(r.years, site, rec, None, unit), self.study,
                               r, site, rec, unit, self.session.scenario.options.get("uncertainty"),
-                              self.settings.overrides)
+                              self.settings.for_site(site).overrides)
         if name == "monthly fluxes":
             if r.options.get("resolution") != "month":
                 self.result = r = self.session.run(self.settings, site, *self.years, "month", rec)
