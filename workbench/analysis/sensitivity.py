@@ -37,10 +37,26 @@ from .layer import DRY_SPECIES, linear_layer
 from .sensitivity_options import OUTPUTS, SensitivityOptions, factor_kind
 from .uncertainty import SiteNoise, component_draws, totals_of
 
-#: Unit of the tornado's outputs by element (a period's deposition, as the budget's
-#: ``flux_kg_ha`` and ``flux_eq_ha``): tornado.csv names it in its ``unit`` column.
-OUTPUT_UNITS = {"S": "kg S/ha per period", "N": "kg N/ha per period",
-                "S+N": "eq/ha per period"}
+#: Amount of the tornado's outputs by element (a period's deposition, as the budget's
+#: ``flux_kg_ha`` and ``flux_eq_ha``); :func:`output_unit` adds the period.
+OUTPUT_AMOUNTS = {"S": "kg S ha-1", "N": "kg N ha-1", "S+N": "eq ha-1"}
+#: The period of a resolution as a unit: the deposition of one whole period is that
+#: amount per period (periods are whole calendar periods, :func:`workbench.periods.
+#: make_periods`); custom periods have lengths of their own.
+PERIOD_UNITS = {"year": "yr-1", "hydro_year": "yr-1", "month": "month-1",
+                "season": "season-1"}
+
+
+def output_unit(element: str, resolution: str = "year") -> str:
+    """Unit of the tornado's outputs of `element` at a reporting `resolution`, e.g.
+    ``kg S ha-1 yr-1`` for years (tornado.csv's ``unit`` column; it said "kg S/ha per
+    period" whatever the period was).
+
+    >>> output_unit("S"), output_unit("S+N", "month"), output_unit("N", "custom")
+    ('kg S ha-1 yr-1', 'eq ha-1 month-1', 'kg N ha-1 per period')
+    """
+    per = PERIOD_UNITS.get(resolution)
+    return f"{OUTPUT_AMOUNTS[element]} {per}" if per else f"{OUTPUT_AMOUNTS[element]} per period"
 
 
 def _salib():
@@ -277,7 +293,8 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
         ``site, receptor, period, element, quantity, factor, low, high, base,
         output_low, output_high, output_base, unit, note``: outputs [kg ha-1] of S or
         N per reporting period ([eq ha-1] for the acidity), the unit of each row named
-        in ``unit`` (:data:`OUTPUT_UNITS`; tornado.csv mixes the three), ``note`` as in
+        in ``unit`` (:func:`output_unit`, e.g. ``kg S ha-1 yr-1`` for yearly periods;
+        tornado.csv mixes the three elements), ``note`` as in
         :func:`sobol`.
     """
     from ..units import element_deposition_in
@@ -304,12 +321,13 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
             x.append(row)
     x = np.array(x)
     y, coords = evaluate(study, base_options, options, x, run_kwargs, progress)
+    resolution = (run_kwargs or {}).get("resolution", "year")      # Study.run's default
     rows = []
     for cell, (s, r, p, q), (el, quantity, _) in _cells(coords, options):
         conv = ((lambda v: v) if el == "S+N" else
                 (lambda v, e=el: element_deposition_in(v, e, "kg_ha")))
         b = conv(y[0, s, r, p, q])
-        unit = OUTPUT_UNITS[el]
+        unit = output_unit(el, resolution)
         if not np.isfinite(b):
             continue
         for i, nm in enumerate(names):
