@@ -41,3 +41,28 @@ def test_totals_show_three_significant_digits(net, unit):
                                        values="value", aggfunc="first", sort=False)
     np.testing.assert_array_equal(t[f"S total [{unit}]"].to_numpy(), wide["S"].to_numpy())
     assert any(v != round(v, 3) for v in t[f"S total [{unit}]"])      # more than shown
+
+
+def test_site_budget_rows_show_three_significant_digits(session):
+    """The site budget notebook's last cell, the rows of budget.csv of the site shown
+    (it printed "0.978026", "69.824071"): three significant digits, values whole."""
+    import json
+    from pathlib import Path
+
+    from workbench.ui.apps import SiteExplorer
+    app = SiteExplorer(session, site="ridge", years=(2021, 2021))
+    cells = json.loads((Path(__file__).parents[2] / "notebooks" / "site_budget.ipynb")
+                       .read_text(encoding="utf-8"))["cells"]
+    last = "".join(cells[-1]["source"]).strip()
+    shown = eval(last, {"app": app})          # the notebook's own cell
+    t = app.result.table
+    mine = t[(t["site"] == "ridge") & (t["species"] == "all")]
+    assert list(shown.index) == list(mine.index) and len(shown) > 0
+    np.testing.assert_array_equal(shown["flux_kg_ha"].to_numpy(), mine["flux_kg_ha"].to_numpy())
+    with __import__("pandas").option_context("display.max_columns", None):
+        cells = re.findall(r"<td>(-?\d[\d.,]*)</td>", shown._repr_html_())
+    assert cells
+    for cell in cells:
+        if "," in cell or "." not in cell:
+            continue                                  # whole numbers, years
+        assert _significant(cell) <= 3, cell
