@@ -42,7 +42,7 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
         do not name it (their ``unit`` column, :func:`~workbench.analysis.sensitivity.
         output_unit`, is used when present).
     """
-    from ..analysis.sensitivity import output_unit
+    from ..analysis.sensitivity_options import output_unit
     layout_json, axes = subplot_layout(1, 2, horizontal_spacing=0.18,
                                        subplot_titles=("Sobol indices [1]", "One at a time"))
     layout = json.loads(layout_json)
