@@ -185,8 +185,9 @@ def test_tornado_every_number_by_hand_with_its_unit(hand):
     t = S.tornado(study, base, opt, KW)
     t = t[(t["site"] == "wren") & (t["period"] == "2021-01")]
     parts = _parts(res)
-    units = {"S": "kg S/ha per period", "N": "kg N/ha per period",
-             "S+N": "eq/ha per period"}
+    # one month's deposition: per month (it said "per period")
+    units = {"S": "kg S ha-1 month-1", "N": "kg N ha-1 month-1",
+             "S+N": "eq ha-1 month-1"}
     for el, quantity in (("S", "total"), ("N", "total"), ("S", "wet"), ("N", "dry"),
                          ("S+N", "potential_acidity")):
         if el == "S+N":

@@ -81,6 +81,11 @@ def test_sobol_app_shows_its_progress_in_words(session):
     assert any(re.fullmatch(r"engine runs for the Sobol indices: \d+ of \d+", t)
                for t in texts)                            # the bar of the app, in words
     assert app.progress.label.value.startswith("analysis done")
+    # the tornado's axis says the unit of a year's deposition (it said "kg S/ha per
+    # period", the period being the year shown)
+    axis = app.fig.layout.xaxis2.title.text
+    assert axis.startswith("kg S ha-1 yr-1 (base "), axis
+    assert (app.tornado["unit"].isin(["kg S ha-1 yr-1", "kg N ha-1 yr-1", "eq ha-1 yr-1"])).all()
     # seen in the walk-through: a drop-down labelled "N" (the sample count) beside
     # "total: N total"; "2021-2021" for one year; "potential_acidity" and "1.89e+03"
     assert app.samples_w.description == "base samples"
@@ -105,7 +110,7 @@ def test_sobol_figure_words_and_base():
     assert spec["layout"]["title"]["text"].startswith("Sensitivity of S+N potential acidity")
     titles = [v["title"]["text"] for k, v in spec["layout"].items()
               if k.startswith("xaxis") and "title" in v]
-    assert "eq/ha per period (base 1,890)" in titles
+    assert "eq ha-1 yr-1 (base 1,890)" in titles       # a year's deposition: per year
 
 
 def _components(missing=()):
@@ -223,4 +228,4 @@ def test_sobol_figure_names_every_axis():
         axes = [k for k in layout if k.startswith("xaxis")] + ["yaxis"]
         titles = {k: (layout[k].get("title") or {}).get("text") for k in axes}
         assert all(titles.values()), titles
-        assert titles["xaxis"] == "Sobol index [1]" and "kg N/ha" in titles["xaxis2"]
+        assert titles["xaxis"] == "Sobol index [1]" and "kg N ha-1 yr-1" in titles["xaxis2"]

@@ -34,13 +34,9 @@ import numpy as np
 import pandas as pd
 
 from .layer import DRY_SPECIES, linear_layer
-from .sensitivity_options import OUTPUTS, SensitivityOptions, factor_kind
+from .sensitivity_options import (OUTPUT_AMOUNTS, OUTPUTS, PERIOD_UNITS,  # noqa: F401
+                                  SensitivityOptions, factor_kind, output_unit)
 from .uncertainty import SiteNoise, component_draws, totals_of
-
-#: Unit of the tornado's outputs by element (a period's deposition, as the budget's
-#: ``flux_kg_ha`` and ``flux_eq_ha``): tornado.csv names it in its ``unit`` column.
-OUTPUT_UNITS = {"S": "kg S/ha per period", "N": "kg N/ha per period",
-                "S+N": "eq/ha per period"}
 
 
 def _salib():
@@ -281,7 +277,8 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
         ``site, receptor, period, element, quantity, factor, low, high, base,
         output_low, output_high, output_base, unit, note``: outputs [kg ha-1] of S or
         N per reporting period ([eq ha-1] for the acidity), the unit of each row named
-        in ``unit`` (:data:`OUTPUT_UNITS`; tornado.csv mixes the three), ``note`` as in
+        in ``unit`` (:func:`output_unit`, e.g. ``kg S ha-1 yr-1`` for yearly periods;
+        tornado.csv mixes the three elements), ``note`` as in
         :func:`sobol`.
     """
     from ..units import element_deposition_in
@@ -308,12 +305,13 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
             x.append(row)
     x = np.array(x)
     y, coords = evaluate(study, base_options, options, x, run_kwargs, progress)
+    resolution = (run_kwargs or {}).get("resolution", "year")      # Study.run's default
     rows = []
     for cell, (s, r, p, q), (el, quantity, _) in _cells(coords, options):
         conv = ((lambda v: v) if el == "S+N" else
                 (lambda v, e=el: element_deposition_in(v, e, "kg_ha")))
         b = conv(y[0, s, r, p, q])
-        unit = OUTPUT_UNITS[el]
+        unit = output_unit(el, resolution)
         if not np.isfinite(b):
             continue
         for i, nm in enumerate(names):
@@ -427,7 +425,6 @@ def _label(name, options, x):
         return "scenario"
     v = engine_value(name, options, x) if factor_kind(name) == "wetness_rule" else float(x)
     return str(v)
-
 
 
 def write_sensitivity(scenario, out, overwrite=False, quiet=False) -> dict:

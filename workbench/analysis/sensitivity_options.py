@@ -137,3 +137,25 @@ def factor_kind(name: str) -> str:
                      f"{', '.join(LINEAR)}, wetness_rule, fine_fraction_<particle>, "
                      "fine_mmd_<particle>, z0_<land use>, rc_scale_<gas>, "
                      "nh3_gamma_<land use>")
+
+
+#: Amount of the tornado's outputs by element (a period's deposition, as the budget's
+#: ``flux_kg_ha`` and ``flux_eq_ha``); :func:`output_unit` adds the period.
+OUTPUT_AMOUNTS = {"S": "kg S ha-1", "N": "kg N ha-1", "S+N": "eq ha-1"}
+#: The period of a resolution as a unit: the deposition of one whole period is that
+#: amount per period (periods are whole calendar periods, :func:`workbench.periods.
+#: make_periods`); custom periods have lengths of their own.
+PERIOD_UNITS = {"year": "yr-1", "hydro_year": "yr-1", "month": "month-1",
+                "season": "season-1"}
+
+
+def output_unit(element: str, resolution: str = "year") -> str:
+    """Unit of the tornado's outputs of `element` at a reporting `resolution`, e.g.
+    ``kg S ha-1 yr-1`` for years (tornado.csv's ``unit`` column; it said "kg S/ha per
+    period" whatever the period was).
+
+    >>> output_unit("S"), output_unit("S+N", "month"), output_unit("N", "custom")
+    ('kg S ha-1 yr-1', 'eq ha-1 month-1', 'kg N ha-1 per period')
+    """
+    per = PERIOD_UNITS.get(resolution)
+    return f"{OUTPUT_AMOUNTS[element]} {per}" if per else f"{OUTPUT_AMOUNTS[element]} per period"

@@ -162,7 +162,7 @@ class SobolExplorer(SavedText, widgets.VBox):
         self._moved = ""
         study = self.session.study_for(site, y0, y1)
         start, end = self.session.bounds(y0, y1)
-        st = self.settings
+        st = self.settings.for_site(site)        # its study holds this site only
         opt = dataclasses.replace(self.session.scenario.options["sensitivity"],
                                   samples=int(self.samples_w.value), sites=(site,),
                                   receptors=(rec,))

@@ -241,6 +241,15 @@ class SiteExplorer(SavedText, widgets.VBox):
         first, last = self.years
         return f"{first}" if first == last else f"{first}-{last}"
 
+    def rows(self):
+        """The rows of budget.csv of the site and years shown, every species together
+        (the notebook's last cell): shown with three significant digits (they printed
+        six decimals), the values whole (:class:`~workbench.ui.shown_table.ShownTable`;
+        ``app.result.table`` holds every row)."""
+        from .shown_table import ShownTable
+        t = self.result.table
+        return ShownTable(t[(t["site"] == self.site) & (t["species"] == "all")])
+
     def _current_totals(self):
         return mean_totals(self.result.years, self.site, self.receptor_w.value, None,
                            self.unit_w.value)
@@ -262,7 +271,7 @@ class SiteExplorer(SavedText, widgets.VBox):
             from .uncertainty_band import with_range       # 5-95 % when [uncertainty] draws > 0
             return with_range(figures.budget_bars_spec(r.years, site, rec, None, unit), self.study,
                               r, site, rec, unit, self.session.scenario.options.get("uncertainty"),
-                              self.settings.overrides)
+                              self.settings.for_site(site).overrides)
         if name == "monthly fluxes":
             if r.options.get("resolution") != "month":
                 self.result = r = self.session.run(self.settings, site, *self.years, "month", rec)

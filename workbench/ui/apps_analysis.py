@@ -213,7 +213,8 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
                                 f"({self.unc_options.draws} draws)")
             study = self.session.study_for(self.site_w.value, *self.run_years)
             q = monte_carlo(self.result, study, self.unc_options,
-                            overrides=self.session.baseline.overrides, years_only=True)
+                            overrides=self.session.baseline.for_site(self.site_w.value).overrides,
+                            years_only=True)
             self._draws = q.total_draws
             self.progress.done("ready")
         return self._draws

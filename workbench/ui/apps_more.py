@@ -327,7 +327,10 @@ class NetworkOverview(SavedText, widgets.VBox):
         """The annual totals as a table to read: one row per site and year, for S and N
         the value [unit, named in the column] beside its status and the components
         without data, so that a partial or flagged total never reads as a complete one.
+        Shown with three significant digits (:class:`~workbench.ui.shown_table.
+        ShownTable`; it printed six decimals), its values in full precision.
         """
+        from .shown_table import ShownTable
         unit = unit or self.unit_w.value
         t = self.table(unit)
         wide = t.pivot_table(index=["site", "receptor", "period"], columns="element",
@@ -340,7 +343,7 @@ class NetworkOverview(SavedText, widgets.VBox):
                 cols[f"{el} status"] = wide[("status", el)]
                 cols[f"{el} without data"] = wide[("missing", el)].replace(
                     {"": "-", "nan": "-"}).fillna("-")
-        return pd.DataFrame(cols)
+        return ShownTable(cols)
 
     def _draw(self, create=False):
         unit = self.unit_w.value

@@ -80,6 +80,13 @@ class Settings:
         from ..graph import content_digest, token      # derived from every field
         return content_digest([], repr(token(self)))
 
+    def for_site(self, site) -> "Settings":
+        """These settings with the site overrides of `site` only: what a run of that
+        site's own study takes (a study of one site refuses another site's override,
+        so a roughness set at one site stopped every run of the next site chosen)."""
+        table = self.overrides.get(site)
+        return self.replace(overrides={site: copy.deepcopy(table)} if table else {})
+
     def run_args(self) -> dict:
         """Keyword arguments of :meth:`workbench.pipeline.Study.run`."""
         return {"wet_options": self.wet, "dry_options": self.dry,

@@ -8,11 +8,14 @@ from __future__ import annotations
 import numpy as np
 
 from ..analysis.whatif import percent_up
-from .figures import from_spec
+from .figures import LEGEND_LINE_PX, TITLE_CHARS, from_spec, wrap_text
 from .palette import ENVELOPE_FILL, OKABE_ITO, TEMPLATE
 
 #: Height of an analysis figure [px].
 HEIGHT = 460
+#: Characters of a line of the trend figure's legend (a 460 px legend at 12 px: it
+#: fits a figure of 520 px, the narrowest a report or a notebook output gives it).
+LEGEND_CHARS = 70
 #: Room around the largest point of the critical load figure [1].
 HEADROOM = 1.15
 
@@ -178,14 +181,22 @@ def trend_spec(years, values, row=None, status=None, title="", unit="kg/ha/yr") 
                          "line": {"width": 0}, "name": "confidence band of the slope",
                          "hoverinfo": "skip"})
         p = _num(row.get("p_value"))
-        valid = "" if row.get("valid", True) else " — not valid: " + str(row.get("note", ""))
+        valid = "" if row.get("valid", True) else "not valid: " + str(row.get("note", ""))
+        head = (f"Sen slope {slope:.3g} {unit} per yr "
+                f"({f'p = {p:.2g}' if np.isfinite(p) else 'no test'})")
+        # the reasons on lines of their own: one line ran past the figure's edge and
+        # was cut ("... precipitation sampler RDG-P1 -> R")
+        name = head + ("<br>" + wrap_text(valid, LEGEND_CHARS) if valid else "")
         data.append({"type": "scatter", "x": list(ends), "y": list(icpt + slope * ends),
                      "mode": "lines", "line": {"color": OKABE_ITO["vermillion"], "width": 2},
-                     "name": f"Sen slope {slope:.3g} {unit} per yr "
-                             f"({f'p = {p:.2g}' if np.isfinite(p) else 'no test'}){valid}"})
-    layout = {"title": {"text": title or "Trend over the years"},
+                     "name": name, "hovertemplate": name + "<extra></extra>"})
+    title = wrap_text(title or "Trend over the years", TITLE_CHARS)   # a long site name
+    lines = sum(str(t.get("name", "")).count("<br>") for t in data)  # beyond one each
+    layout = {"title": {"text": title},
               "xaxis": {"title": {"text": "year"}, "dtick": 1},
-              "yaxis": {"title": {"text": unit}}, "height": HEIGHT,
+              "yaxis": {"title": {"text": unit}},
+              "height": HEIGHT + LEGEND_LINE_PX * lines + 30 * title.count("<br>"),
+              "margin": {"t": 60 + 30 * title.count("<br>")},
               "legend": {"orientation": "h", "y": -0.2}}
     return {"data": data, "layout": layout}
 

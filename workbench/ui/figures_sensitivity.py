@@ -15,8 +15,6 @@ from .palette import OKABE_ITO, TEMPLATE
 #: Thickness of each Sobol bar [fraction of a factor's row]: first order and total side
 #: by side.
 SOBOL_BAR = 0.4
-#: Output units of the tornado, by element.
-_UNITS = {"S": "kg S/ha per period", "N": "kg N/ha per period", "S+N": "eq/ha per period"}
 
 
 def _pick(frame, site, receptor, period, element, quantity):
@@ -26,7 +24,7 @@ def _pick(frame, site, receptor, period, element, quantity):
 
 
 def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor, period,
-                     element="N", quantity="total") -> dict:
+                     element="N", quantity="total", resolution="year") -> dict:
     """Plotly spec: first-order and total Sobol indices (with their 95 % bootstrap
     intervals) by factor, and the one-at-a-time low/high outputs around the base.
 
@@ -39,7 +37,12 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
     site, receptor, period, element, quantity : str
         The output shown (``element`` S, N or S+N; ``quantity`` wet, dry, total or
         potential_acidity).
+    resolution : str
+        The reporting resolution of the periods, for the tornado's unit when its rows
+        do not name it (their ``unit`` column, :func:`~workbench.analysis.sensitivity.
+        output_unit`, is used when present).
     """
+    from ..analysis.sensitivity_options import output_unit
     layout_json, axes = subplot_layout(1, 2, horizontal_spacing=0.18,
                                        subplot_titles=("Sobol indices [1]", "One at a time"))
     layout = json.loads(layout_json)
@@ -57,6 +60,10 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
                        "error_x": {"type": "data", "array": s[f"{col}_conf"].tolist()},
                        "marker": {"color": colour}, "xaxis": x1.replace("axis", ""),
                        "yaxis": y1.replace("axis", "")})
+    # the unit the numbers are in: "kg S ha-1 yr-1" for years (it said "kg S/ha per
+    # period", the period being a year)
+    unit = (str(t["unit"].iloc[0]) if len(t) and "unit" in t
+            else output_unit(element, resolution))
     if len(t):
         base = float(t["output_base"].iloc[0])
         t = t.assign(_span=(t["output_high"] - t["output_low"]).abs()).sort_values("_span")
@@ -66,12 +73,12 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
                            "base": base, "x": (t[col] - base).tolist(),
                            "y": t["factor"].tolist(), "customdata": t[end].tolist(),
                            "hovertemplate": f"%{{y}} {end} = %{{customdata}}: "
-                                            f"%{{x:+.3g}}<extra></extra>",
+                                            f"%{{x:+.3g}} {unit}<extra></extra>",
                            "marker": {"color": colour}, "xaxis": x2.replace("axis", ""),
                            "yaxis": y2.replace("axis", "")})
         # the baseline as the tables write it ("1,890", not "1.89e+03")
         shown = f"{base:,.0f}" if abs(base) >= 1000 else f"{base:.3g}"
-        layout[x2]["title"] = {"text": f"{_UNITS.get(element, '')} (base {shown})"}
+        layout[x2]["title"] = {"text": f"{unit} (base {shown})"}
     layout.update({"barmode": "overlay", "height": 120 + 28 * max(len(s), len(t), 4),
                    "title": {"text": f"Sensitivity of {element} {quantity.replace('_', ' ')} · "
                                      f"{site} · "
@@ -81,12 +88,12 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
     layout[x1]["title"] = {"text": "Sobol index [1]"}
     layout[y1]["title"] = {"text": "factor"}
     if len(t) == 0:                 # no tornado rows: still say what the axis would hold
-        layout[x2]["title"] = {"text": _UNITS.get(element, "")}
+        layout[x2]["title"] = {"text": unit}
     return {"data": traces, "layout": layout}
 
 
 def sensitivity_figure(sobol, tornado, site, receptor, period, element="N", quantity="total",
-                       template=TEMPLATE):
+                       template=TEMPLATE, resolution="year"):
     """The Figure of :func:`sensitivity_spec`."""
     return from_spec(sensitivity_spec(sobol, tornado, site, receptor, period, element,
-                                      quantity), template)
+                                      quantity, resolution), template)

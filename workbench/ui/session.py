@@ -237,9 +237,12 @@ class Session:
 
         The run is the ``app_run`` stage of the session's graph: going back to settings
         seen before returns the same ``Result`` object without running the study (its
-        key is derived from the settings, the site's study and the arguments).
+        key is derived from the settings, the site's study and the arguments).  The
+        overrides of other sites are left out (:meth:`Settings.for_site`): the site's
+        study has no other site, and they change nothing here.
         """
         study = self.study_for(site, first_year, last_year)
+        settings = settings.for_site(site)
 
         def compute(o, study, first_year, last_year, resolution, receptor, settings):
             start, end = self.bounds(first_year, last_year)
