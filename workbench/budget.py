@@ -484,6 +484,17 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             comp_note[..., j] = np.where(said, join_notes(
                 comp_note[..., j], (words[:, None, :] * np.ones((1, n_r, 1), object)).astype(str)),
                 comp_note[..., j])
+        # weeks whose pNa was below detection: their sea salt from the substitute, said
+        # (not flagged: a value below detection is a measurement, as for every species)
+        if "pSO4_na_censored" in dr.variables:
+            words = np.asarray(dr.variables["pSO4_na_censored"].values, object)
+            said = np.array([isinstance(x, str) and x != "" for x in words.ravel()],
+                            bool).reshape(words.shape)[:, None, :] & np.ones((1, n_r, 1), bool)
+            said &= (status[..., j] != "missing") & ~np.char.startswith(
+                comp_note[..., j].astype(str), "caught by the bulk collector")
+            comp_note[..., j] = np.where(said, join_notes(
+                comp_note[..., j], (words[:, None, :] * np.ones((1, n_r, 1), object)).astype(str)),
+                comp_note[..., j])
     # a site's own surface under a land-use class other than its land_use in the period
     # (workbench/surfacehistory.py): its dry rows say which
     lu = period_notes(catalogue, sites, list(receptors), periods)

@@ -62,6 +62,10 @@ class DryPieces:
     #: analyses apart (:func:`workbench.analysis.uncertainty.nss_dry_draws`). None:
     #: not a non-sea-salt component.
     seasalt: np.ndarray | None = None
+    #: (n,) bool of non-sea-salt pSO4 only: the row's pNa was below detection, its
+    #: sea-salt sulfate from the substitute of ``[budget] air_censored`` (drawn with
+    #: ``censored_rel_sd``, :func:`workbench.analysis.noise.site_noise`). None: none.
+    seasalt_censored: np.ndarray | None = None
 
 
 @dataclass
@@ -189,21 +193,26 @@ def _row_classes(receptors, start, end, history):
     return out
 
 
-def _seasalt_rows(pr, r, air):
+def _seasalt_rows(pr, r, air, censored="half"):
     """(n, P, R) sea-salt sulfate deposition each nss pSO4 row had taken off [mol m-2]:
     its contribution over its nss concentration (the row's air volume at its Vd) times
     0.0605 pNa (Keene et al. 1986, :func:`workbench.wet.seasalt.seawater_ratio`); 0 where
-    pNa is missing (total pSO4 used) or the nss concentration is 0."""
+    pNa is missing (total pSO4 used) or the nss concentration is 0.  A pNa below
+    detection takes the budget's substitute (`censored`, ``[budget] air_censored``).
+    Also (n,) whether the row's pNa was below detection."""
+    from ..dryflux import _censored_values
     from ..wet.seasalt import seawater_ratio
-    na = np.asarray(air["pNa"].values, float)[r["air_row"]]
+    na_all, cens_all = _censored_values(air, "pNa", censored)
+    na = np.asarray(na_all, float)[r["air_row"]]
+    cens = np.asarray(cens_all, bool)[r["air_row"]]
     conc = np.asarray(r["conc"], float)
     ok = np.isfinite(na) & np.isfinite(conc) & (conc != 0)
     per_c = np.where(ok, seawater_ratio("SO4", "Na") * np.where(ok, na, 0.0)
                      / np.where(ok, conc, 1.0), 0.0)
-    return pr * per_c[:, None, None]
+    return pr * per_c[:, None, None], cens & ok
 
 
-def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False):
+def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False, censored="half"):
     from ..drycomponents import row_filled_deposition_share
     from ..drypairs import component_rows
     from ..dryflux import period_axes, share_to_periods
@@ -224,6 +233,7 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False):
         _, c_fill = rows["vd_cum"][sp]          # the Vd of `sp` in every part
         per_row, si, filled, cens, member, sampler, start, end = ([] for _ in range(8))
         ss = [] if (nss and sp == "pSO4" and "pNa" in air) else None
+        ss_cens = []
         samplers = air["sampler_id"].values.astype(str)
         for name, r, factor in parts:
             *_, pr = share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"],
@@ -232,7 +242,9 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False):
             a, b = r["a"], r["b"]
             per_row.append(factor * np.where(np.isfinite(pr), pr, 0.0))
             if ss is not None:
-                ss.append(_seasalt_rows(per_row[-1], r, air))
+                s_rows, s_cens = _seasalt_rows(per_row[-1], r, air, censored)
+                ss.append(s_rows)
+                ss_cens.append(s_cens)
             si.append(r["site_index"])
             # the share of the deposition that the hours not modelled (filled, or
             # without any Vd: the budget's reckoning of them) carry, per sampling period
@@ -248,6 +260,7 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False):
             end.append(np.asarray(r["end"]))
         per_row, si = np.concatenate(per_row), np.concatenate(si)
         ss = None if ss is None else np.concatenate(ss)
+        ss_cens = np.concatenate(ss_cens) if ss is not None else None
         filled, cens = np.concatenate(filled), np.concatenate(cens)
         member, sampler = np.concatenate(member), np.concatenate(sampler)
         start = np.concatenate(start).astype("datetime64[ns]")
@@ -266,7 +279,9 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False):
                                    start[sel], end[sel],
                                    _row_classes(recs, start[sel], end[sel],
                                                 (histories or {}).get(s)),
-                                   None if ss is None else ss[sel][:, :, :n_r])
+                                   None if ss is None else ss[sel][:, :, :n_r],
+                                   None if ss is None or not ss_cens[sel].any()
+                                   else ss_cens[sel])
     return out
 
 
@@ -350,7 +365,7 @@ def linear_layer(result, study, which: str = "budget", overrides=None) -> Linear
     catalogue = study.catalogue(overrides)
     histories = {sid: (own, ch) for sid, own, ch in land_use_history(catalogue)}
     dry = _dry_layers(rows, periods, sites, ds.sizes["receptor"], study.inputs.air, histories,
-                      nss=bud_opt.sulfate_basis == "nss")
+                      nss=bud_opt.sulfate_basis == "nss", censored=bud_opt.air_censored)
     wet = study.wet(wet_opt, periods) if result.screened is not None else None
     tracer = wet_opt.seasalt_tracer
     nss = (bud_opt.sulfate_basis == "nss" and wet is not None and "dep_nssSO4" in wet)
