@@ -29,6 +29,7 @@ import numpy as np
 import pandas as pd
 
 from ..budget import COMPONENTS
+from .bulk import bulk_parts, piece_betas  # noqa: F401  (bulk_parts moved there)
 
 #: Dry species of the budget, in the order of :data:`workbench.budget.COMPONENTS`.
 DRY_SPECIES = tuple(c[2] for c in COMPONENTS if c[1] == "dry")
@@ -85,6 +86,9 @@ class WetPieces:
     #: laboratory periods)
     start: np.ndarray | None = None
     end: np.ndarray | None = None
+    #: (m,) int, each piece's row in the wet chain's sample-weights table (where the
+    #: ``collector_split`` stage's bulk share of each piece is found)
+    row: np.ndarray | None = None
 
 
 @dataclass
@@ -102,10 +106,13 @@ class SiteLayer:
     #: named, a laboratory of the site's own) of the precipitation and of the air samples
     lab_ids: list = field(default_factory=lambda: [None])
     air_lab_ids: list = field(default_factory=lambda: [None])
-    #: wet component index -> (P,) share of the component's deposition that its bulk
-    #: samples carry after ``bulk_wet_factor`` (``bulk_correction = "scale_wet"``) [1];
-    #: empty otherwise
+    #: wet component index -> :class:`workbench.analysis.bulk.BulkPart`: the share of
+    #: the component's deposition that its bulk samples carry (``bulk_correction =
+    #: "scale_wet"``); empty otherwise
     bulk_part: dict = field(default_factory=dict)
+    #: (m,) bulk share of each wet piece [1] where a collector changed (the share of a
+    #: period holding the change is redrawn with the samples); None otherwise
+    bulk_beta: np.ndarray | None = None
 
 
 @dataclass
@@ -325,7 +332,8 @@ def _wet_layers(screened, wet, periods, wet_options, met, sites, ions):
         out[k] = WetPieces(inverse, p[sel], np.where(np.isfinite(weight[sel]), weight[sel], 0.0),
                            conc, valid, cens, len(local), ident,
                            np.asarray(screened.variables["start"].values[local], "datetime64[ns]"),
-                           np.asarray(screened.variables["end"].values[local], "datetime64[ns]"))
+                           np.asarray(screened.variables["end"].values[local], "datetime64[ns]"),
+                           sel)
     return out, fills, pwms
 
 
@@ -376,53 +384,11 @@ def linear_layer(result, study, which: str = "budget", overrides=None) -> Linear
     by_id = {c.id: c for c in catalogue}
     wet_component = {j: ("nssSO4" if (sp == "SO4" and nss) else sp)
                      for j, (_, path, sp) in enumerate(COMPONENTS) if path == "wet"}
-    bulk = bulk_parts(result, study, wet, catalogue, periods, sites, overrides)
+    bulk, raw = bulk_parts(result, study, wet, catalogue, periods, sites, overrides)
     layers = [SiteLayer(dry[k], wet_pieces[k], fills[k], pwms[k],
                         change_instants(by_id.get(s), "gauge"),
                         change_instants(by_id.get(s), "laboratory"),
                         laboratory_ids(by_id.get(s)), laboratory_ids(by_id.get(s), air=True),
-                        bulk[k])
+                        bulk[k], piece_betas(raw, wet_pieces[k]) if bulk[k] else None)
               for k, s in enumerate(sites)]
     return LinearLayer(ds, layers, period_years(periods), wet_component, tracer)
-
-
-def bulk_parts(result, study, wet, catalogue, periods, sites, overrides=None) -> list:
-    """Per site: wet component index -> (P,) share of the component's deposition that
-    its bulk samples carry after the scaling of ``bulk_correction = "scale_wet"`` [1]
-    (empty dicts under another correction or without precipitation).
-
-    The budget (:func:`workbench.budget.assemble`) writes D = D0 (1 - s (1 - f)), s the
-    bulk samples' share of D0 (1 in a period wholly under bulk), f ``bulk_wet_factor``;
-    the bulk part of D is b = s f / (1 - s (1 - f)), so a drawn factor f' = f u gives
-    D' = D (1 + b (u - 1)).  The shares are those of the budget, from the same functions.
-    """
-    bud = result.options["budget"]
-    out = [dict() for _ in sites]
-    if bud.bulk_correction != "scale_wet" or wet is None:
-        return out
-    from ..budget import _collector_split_on, _wet_bulk_share
-    from ..surfacehistory import collector_shares
-    labels = periods["label"].values
-    n_p = len(labels)
-    share, _ = collector_shares(catalogue, sites, periods)
-    split = _collector_split_on(study.collector_split(result.options["wet"], periods, overrides),
-                                sites, n_p)
-    if split is not None:
-        share = np.where(np.isfinite(split["hour_share"]), split["hour_share"], share)
-    if not (share > 0).any():
-        return out
-    w = wet.reindex(site=sites, period=labels)
-    whole = share >= 1.0
-    straddle = (share > 0) & ~whole
-    f = float(bud.bulk_wet_factor)
-    for j, (_, path, sp) in enumerate(COMPONENTS):
-        if path != "wet":
-            continue
-        dep_share = _wet_bulk_share(split, w, sp, bud)[0] if split is not None else share
-        s = np.where(whole, 1.0, np.where(straddle, dep_share, 0.0))
-        den = 1.0 - s * (1.0 - f)
-        b = np.where(den > 0, s * f / np.where(den > 0, den, 1.0), 0.0)
-        for k in range(len(sites)):
-            if b[k].any():
-                out[k][j] = b[k]
-    return out
