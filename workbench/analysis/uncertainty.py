@@ -29,7 +29,8 @@ draw is a few matrix products per site and never re-runs the engine:
   and :math:`\\delta` the analytical error (random per sample) times the
   laboratory's calibration bias (systematic: one per ion and laboratory period, shared
   by the sites naming one laboratory); under ``bulk_correction = "scale_wet"`` the
-  bulk samples' part of D takes a drawn ``bulk_wet_factor``; a PWM
+  bulk samples' part of D takes a drawn ``bulk_wet_factor`` and, in a period holding a
+  collector change, a share redrawn with the samples (:mod:`.bulk`); a PWM
   filled from the multi-year seasonal means gets its own error instead, and the
   non-sea-salt sulfate is recomputed from the drawn SO4 and tracer PWMs.
 
@@ -54,10 +55,11 @@ from .layer import DRY_SPECIES, LinearLayer, linear_layer
 # the factors of the draws, named by what they draw for (site, year, sample)
 from .noise import (SAMPLE_STREAM, YEAR_STREAM, SiteNoise, _normal_factor,  # noqa: F401
                     _stream_key, keyed_normal_factor, site_noise)
-from .wetdraws import _gauge_by_piece, wet_ratios  # noqa: F401  (moved there)
 from .quantile_tables import (QUANTILES, SUFFIXES, TOTALS, quantile_table,  # noqa: F401
                               range_note, report_section, summary_dataset,
                               summary_range_notes)
+# the wet side of a draw (wet_ratios, _gauge_by_piece were defined here before)
+from .wetdraws import _gauge_by_piece, _safe_ratio, wet_ratios
 
 
 #: Geometric standard deviation of the Vd model factor per species [1].  Values chosen
@@ -239,11 +241,6 @@ class UncertaintyOptions:
 
 
 # ------------------------------------------------------------------------------ draws
-
-def _safe_ratio(num, den):
-    with np.errstate(invalid="ignore", divide="ignore"):
-        return np.where(den != 0, num / np.where(den != 0, den, 1.0), 0.0)
-
 
 def dry_ratio(pieces, vd_factor, air, vd_fill, class_factor=None):
     """Draws of a dry component over the point: (D, R, P) [1].
