@@ -158,11 +158,12 @@ def test_the_bulk_factor_in_the_sobol_indices(tmp_path):
     Var/mean^2 = (1 + c_G^2)(1 + c_H^2) - 1, S1_G = c_G^2 / that, S1_H = c_H^2 / that,
     ST = S1 + c_G^2 c_H^2 / that; so S1 sums to just under 1 and ST to just over it.
     At ousby (no bulk samples) the bulk factor's indices are 0 exactly, with a note,
-    and the gauge catch's S1 = ST = 1.  Within SALib's 95 % interval + 0.01 (as the
-    Sobol hand audit).  The old code refused the factor (unknown factor)."""
+    and the gauge catch's S1 = ST = 1; its other indices are those of a run without the
+    bulk factor.  Within SALib's 95 % interval + 0.01 (as the Sobol hand audit).  The old code refused the factor (unknown factor)."""
     f = _sobol(_network(tmp_path / "n"), {"gauge_catch": (0.9, 1.1),
                                           "bulk_wet_factor": (0.9, 1.1),
                                           "vd_SO2": (0.9, 1.1)})
+    f0 = f
     f = f[(f["receptor"] == "grass") & (f["element"] == "S") & (f["quantity"] == "wet")]
     c2 = 0.2 ** 2 / 12
     for sid, b in (("threl", 1.0), ("gars", 0.4 / 0.9), ("ousby", 0.0)):
@@ -182,6 +183,14 @@ def test_the_bulk_factor_in_the_sobol_indices(tmp_path):
         else:
             assert 0.95 < rows["S1"].sum() <= 1.0 + rows["S1_conf"].max()
             assert rows["ST"].sum() >= rows["S1"].sum() - 0.01
+    # ousby's indices of the other factors are those of a run without the bulk factor
+    # (within the 95 % interval), on every output of the site
+    g = _sobol(_network(tmp_path / "n"), {"gauge_catch": (0.9, 1.1), "vd_SO2": (0.9, 1.1)})
+    keys = ["receptor", "element", "quantity", "factor"]
+    a = f0[f0["site"] == "ousby"].merge(g[g["site"] == "ousby"], on=keys)
+    assert len(a) == len(g[g["site"] == "ousby"]) > 0
+    np.testing.assert_array_less(np.abs(a["S1_x"] - a["S1_y"]), a["S1_conf_y"] + 1e-12)
+    np.testing.assert_array_less(np.abs(a["ST_x"] - a["ST_y"]), a["ST_conf_y"] + 1e-12)
 
 
 def test_the_bulk_factor_joins_the_defaults_where_it_acts(tmp_path):
