@@ -190,7 +190,8 @@ def censored_na_notes(rows: dict, periods, sites) -> np.ndarray:
         n_all = int((each[:, p_] & (si == s_)).sum())
         out[s_, p_] = (f"pNa below detection in {len(names)} of {n_all} pSO4 samples (from "
                        f"{', '.join(names)}): their sea-salt sulfate from {sub} "
-                       "(air_censored), drawn between 0 and the limit in the Monte Carlo")
+                       "(air_censored), drawn with the spread of a value between 0 and the "
+                       "limit in the Monte Carlo")
     return out
 
 
