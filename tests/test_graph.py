@@ -50,6 +50,7 @@ def _explicit(base):
         ("dry", "sampler_coarse_fraction"): {"ridge/RDG-F1": {"pNO3": 0.45}},
         ("budget", "diurnal_profile"): {"NH3": [1.0] * 12 + [2.0] * 12},
         ("budget", "preferred_method"): {"NH3": "denuder"},
+        ("budget", "bulk_wet_factor_ion"): {"NH4": 1.0},
     }
 
 

@@ -43,6 +43,8 @@ COMPONENTS = (
 OXIDIZED_N = ("NO3", "HNO3", "pNO3", "NO2")
 REDUCED_N = ("NH4", "NH3", "pNH4")
 PARTICLES = ("pSO4", "pNO3", "pNH4")
+#: The wet ions a bulk collector's factor may be given for (``bulk_wet_factor_ion``).
+BULK_IONS = ("SO4", "NO3", "NH4")
 #: The wet ion of a bulk collector that holds each particle species' dry deposition
 #: (``bulk_correction = "exclude_particles"``).
 BULK_CAUGHT_IN = {"pSO4": "SO4", "pNO3": "NO3", "pNH4": "NH4"}
@@ -110,6 +112,13 @@ class BudgetOptions:
     bulk_wet_factor : float
         Wet-only / bulk deposition ratio for "scale_wet" [1]; 0.8 is a typical value
         for sulfate and nitrate in rural areas (common practice, from memory).
+    bulk_wet_factor_ion : dict
+        ion (``SO4``, ``NO3``, ``NH4``) -> its own wet-only / bulk ratio for "scale_wet"
+        [1], in [0, 2] (above 1 for an ion the bulk sample loses, e.g. NH4 taken up in a
+        sample left a week in the field); an ion not named takes `bulk_wet_factor`.
+        Empty by default (one factor for every ion, as before).  Our choice to offer
+        it: the funnel's gain differs by ion (from memory, docs/budget.md, "Bulk
+        collectors").
     min_air_coverage : float
         Share of a period's hours covered by concentrations for completeness [1];
         0.75 (common practice).
@@ -133,6 +142,7 @@ class BudgetOptions:
     air_censored: str = "half"
     bulk_correction: str = "none"
     bulk_wet_factor: float = 0.8
+    bulk_wet_factor_ion: dict = field(default_factory=dict)
     min_air_coverage: float = 0.75
     require_all_seasons: bool = True
     min_vd_coverage: float = 0.9
@@ -154,12 +164,24 @@ class BudgetOptions:
         for name in ("min_air_coverage", "min_vd_coverage", "bulk_wet_factor"):
             if not 0 <= getattr(self, name) <= 1:
                 raise ValueError(f"BudgetOptions.{name} must lie in [0, 1]")
+        for ion, f in self.bulk_wet_factor_ion.items():
+            if ion not in BULK_IONS:
+                raise ValueError(f"BudgetOptions.bulk_wet_factor_ion: unknown ion {ion!r}; "
+                                 f"expected one of {', '.join(BULK_IONS)}{suggest(ion, BULK_IONS)}")
+            if isinstance(f, bool) or not isinstance(f, (int, float)) or not 0 <= f <= 2:
+                raise ValueError(f"BudgetOptions.bulk_wet_factor_ion[{ion!r}] = {f!r} must be "
+                                 "a number in [0, 2]")
         for sp, prof in self.diurnal_profile.items():
             if len(prof) != 24 or min(prof) < 0 or sum(prof) <= 0:
                 raise ValueError(f"BudgetOptions.diurnal_profile[{sp!r}] needs 24 values >= 0")
 
     def to_dict(self) -> dict:
         return asdict(self)
+
+    def bulk_factor(self, ion: str) -> float:
+        """The wet-only / bulk ratio of a wet ion under "scale_wet" [1]: its own in
+        `bulk_wet_factor_ion`, else `bulk_wet_factor`."""
+        return float(self.bulk_wet_factor_ion.get(ion, self.bulk_wet_factor))
 
     def flux_key(self) -> str:
         """The options that change fluxes (not only their status), as a cache key."""
@@ -364,7 +386,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                 note = sampling_gap_note(note, st, w.variables["coverage_fraction"].values,
                                          hours_p[None, :], "precipitation")
             if options.bulk_correction == "scale_wet":
-                f = options.bulk_wet_factor
+                f = options.bulk_factor(sp)
                 d = np.where(bulk_p, d * f, d)
                 note = np.where(bulk_p, join_notes(note, f"bulk deposition x {f:g} "
                                                          "(bulk_correction scale_wet)"), note)
@@ -481,6 +503,17 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             status[..., j] = np.where(said & ~whole
                                       & np.isin(status[..., j], ("complete", "filled")),
                                       "flagged", status[..., j])
+            comp_note[..., j] = np.where(said, join_notes(
+                comp_note[..., j], (words[:, None, :] * np.ones((1, n_r, 1), object)).astype(str)),
+                comp_note[..., j])
+        # weeks whose pNa was below detection: their sea salt from the substitute, said
+        # (not flagged: a value below detection is a measurement, as for every species)
+        if "pSO4_na_censored" in dr.variables:
+            words = np.asarray(dr.variables["pSO4_na_censored"].values, object)
+            said = np.array([isinstance(x, str) and x != "" for x in words.ravel()],
+                            bool).reshape(words.shape)[:, None, :] & np.ones((1, n_r, 1), bool)
+            said &= (status[..., j] != "missing") & ~np.char.startswith(
+                comp_note[..., j].astype(str), "caught by the bulk collector")
             comp_note[..., j] = np.where(said, join_notes(
                 comp_note[..., j], (words[:, None, :] * np.ones((1, n_r, 1), object)).astype(str)),
                 comp_note[..., j])

@@ -104,16 +104,27 @@ def nh3_exchange_velocities(vd_ds, min_slot_hours=7, slots=None):
     return out
 
 
-def _nss_particles(air: xr.Dataset, basis: str) -> xr.Dataset:
+#: Words for the substitute of a value below detection (``[budget] air_censored``).
+CENSORED_WORDS = {"half": "half the detection limit", "limit": "the detection limit",
+                  "zero": "0"}
+
+
+def _nss_particles(air: xr.Dataset, basis: str, censored: str = "half") -> xr.Dataset:
     """Replace pSO4 by its non-sea-salt part where pNa is measured (Keene et al. 1986).
 
     A pSO4 row without a pNa value (the sodium sampler missing that week, or no pNa at
     all) keeps its total pSO4, sea salt included, and is marked in
     ``pSO4_total_used`` (bool per row), which the budget names in the period's note
-    (docs/budget.md, "Components and units"); a pNa below detection counts as a value.
+    (docs/budget.md, "Components and units").  A pNa below detection counts as a
+    value and enters with the substitute of every air value below detection
+    (`censored`, ``[budget] air_censored``: half the limit by default; 0 where no limit
+    is known, as :func:`workbench.dryflux._censored_values`); such rows are marked in
+    ``pSO4_na_censored`` (its ``substitute`` attribute names the rule) for the note.
+    Before, a pNa below detection entered as 0 (total pSO4), without a word.
     """
     if basis != "nss" or "pSO4" not in air:
         return air
+    from .dryflux import _censored_values
     from .wet.seasalt import non_seasalt
     air = air.copy()
     so4 = air["pSO4"].values
@@ -125,11 +136,63 @@ def _nss_particles(air: xr.Dataset, basis: str) -> xr.Dataset:
     na = air["pNa"].values
     na_cens = (air["pNa_censored"].values.astype(bool) if "pNa_censored" in air
                else np.zeros(na.shape, bool))
-    nss = non_seasalt(so4, np.where(np.isfinite(na), na, 0.0), "SO4", "Na")
+    na_used, _ = _censored_values(air, "pNa", censored)
+    nss = non_seasalt(so4, np.where(np.isfinite(na_used), na_used, 0.0), "SO4", "Na")
     air["pSO4"] = air["pSO4"].copy(data=np.where(np.isfinite(so4), nss, np.nan))
     air["pSO4"].attrs["long_name"] = "particulate non-sea-salt sulfate (Keene et al. 1986)"
     air["pSO4_total_used"] = (air["pSO4"].dims, has_so4 & ~np.isfinite(na) & ~na_cens)
+    air["pSO4_na_censored"] = (air["pSO4"].dims, has_so4 & na_cens,
+                               {"substitute": CENSORED_WORDS.get(censored, str(censored))})
     return air
+
+
+def _rows_by_cell(flag, r, periods, n_p):
+    """The pSO4 rows marked in `flag` (bool per row) by (site, period) cell: a Series
+    cell (site index x P + period) -> the rows' start dates, and (rows, P) whether each
+    row overlaps each period."""
+    t0 = np.asarray(r["start"], "datetime64[ns]")
+    t1 = np.asarray(r["end"], "datetime64[ns]")
+    p0 = periods["start"].values.astype("datetime64[ns]")
+    p1 = periods["end"].values.astype("datetime64[ns]")
+    si = np.asarray(r["site_index"])
+    k = np.flatnonzero(flag)
+    over = (t0[k, None] < p1[None, :]) & (t1[k, None] > p0[None, :])     # (flagged, P)
+    each = (t0[:, None] < p1[None, :]) & (t1[:, None] > p0[None, :])    # (rows, P)
+    kk, pp = np.nonzero(over)
+    g = pd.DataFrame({"cell": si[k[kk]] * n_p + pp,
+                      "name": pd.DatetimeIndex(t0[k[kk]]).strftime("%Y-%m-%d")})
+    return g.groupby("cell")["name"].agg(list), each
+
+
+def censored_na_notes(rows: dict, periods, sites) -> np.ndarray:
+    """Words per (site, period) naming the pSO4 samples whose sea-salt sulfate stands on
+    a pNa below detection (``pSO4_na_censored`` of :func:`_nss_particles`); "" elsewhere.
+
+    Parameters
+    ----------
+    rows : dict
+        Output of :func:`dry_rows` (``rows["pSO4_na_censored"]``: bool per pSO4 row;
+        ``rows["pSO4_na_substitute"]``: the words of the substitute).
+    periods : pandas.DataFrame
+    sites : sequence of str
+    """
+    n_s, n_p = len(sites), len(periods)
+    out = np.full((n_s, n_p), "", dtype=object)
+    flag = rows.get("pSO4_na_censored")
+    r = rows["species"].get("pSO4")
+    if flag is None or r is None or not np.any(flag):
+        return out
+    agg, each = _rows_by_cell(np.asarray(flag, bool), r, periods, n_p)
+    si = np.asarray(r["site_index"])
+    sub = rows.get("pSO4_na_substitute") or CENSORED_WORDS["half"]
+    for cell, names in agg.items():          # one entry per (site, period) cell named
+        s_, p_ = divmod(int(cell), n_p)
+        n_all = int((each[:, p_] & (si == s_)).sum())
+        out[s_, p_] = (f"pNa below detection in {len(names)} of {n_all} pSO4 samples (from "
+                       f"{', '.join(names)}): their sea-salt sulfate from {sub} "
+                       "(air_censored), drawn with the spread of a value between 0 and the "
+                       "limit in the Monte Carlo")
+    return out
 
 
 def total_used_notes(rows: dict, periods, sites) -> np.ndarray:
@@ -151,20 +214,10 @@ def total_used_notes(rows: dict, periods, sites) -> np.ndarray:
     r = rows["species"].get("pSO4")
     if flag is None or r is None or not np.any(flag):
         return out
-    t0 = np.asarray(r["start"], "datetime64[ns]")
-    t1 = np.asarray(r["end"], "datetime64[ns]")
-    p0 = periods["start"].values.astype("datetime64[ns]")
-    p1 = periods["end"].values.astype("datetime64[ns]")
+    agg, each = _rows_by_cell(np.asarray(flag, bool), r, periods, n_p)
     si = np.asarray(r["site_index"])
-    k = np.flatnonzero(flag)
-    over = (t0[k, None] < p1[None, :]) & (t1[k, None] > p0[None, :])     # (flagged, P)
-    each = (t0[:, None] < p1[None, :]) & (t1[:, None] > p0[None, :])    # (rows, P)
-    kk, pp = np.nonzero(over)
-    if not len(kk):
+    if not len(agg):
         return out
-    g = pd.DataFrame({"cell": si[k[kk]] * n_p + pp,
-                      "name": pd.DatetimeIndex(t0[k[kk]]).strftime("%Y-%m-%d")})
-    agg = g.groupby("cell")["name"].agg(list)
     fl = np.asarray(flag, bool)
     none_at = {s_: bool(fl[si == s_].all()) for s_ in np.unique(si)}
     for cell, names in agg.items():          # one entry per flagged (site, period) cell
@@ -218,12 +271,12 @@ def fill_arrays(vd, was, source, sites) -> dict:
 
 
 # ------------------------------------------------------------------ stages of the rows
-@_graph.stage("air_basis", reads={"budget": ("sulfate_basis",)})
+@_graph.stage("air_basis", reads={"budget": ("sulfate_basis", "air_censored")})
 def prepared_air(o, air):
     """The air concentrations as the budget options read them (non-sea-salt sulfate).
     The pairs are never moved here: ``pair_split`` builds the moved components from
     each member's own rows (:func:`dry_rows`, :func:`workbench.drypairs.apply_split`)."""
-    return _nss_particles(air, o.budget.sulfate_basis)
+    return _nss_particles(air, o.budget.sulfate_basis, o.budget.air_censored)
 
 
 @_graph.stage("air_content")
@@ -383,6 +436,10 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
         return np.isfinite(air_v[sp].values) | cens
     if "pSO4" in out["species"] and "pSO4_total_used" in air_v:
         out["pSO4_total_used"] = air_v["pSO4_total_used"].values[out["species"]["pSO4"]["air_row"]]
+    if "pSO4" in out["species"] and "pSO4_na_censored" in air_v:
+        out["pSO4_na_censored"] = air_v["pSO4_na_censored"].values[
+            out["species"]["pSO4"]["air_row"]]
+        out["pSO4_na_substitute"] = air_v["pSO4_na_censored"].attrs.get("substitute", "")
     out["measured"] = np.stack(
         [np.isin(sites, np.unique(air_v["site"].values[has_value(sp)]))
          if sp in air_v else np.zeros(len(sites), bool) for sp in species_list], -1)
@@ -655,6 +712,9 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
          "pSO4_total_used": (("site", "period"), total_used_notes(rows, periods, sites),
                              {"long_name": "pSO4 samples without pNa in the period: total "
                               "pSO4 used for them in place of non-sea-salt pSO4"}),
+         "pSO4_na_censored": (("site", "period"), censored_na_notes(rows, periods, sites),
+                              {"long_name": "pSO4 samples whose pNa was below detection: "
+                               "their sea-salt sulfate from the substitute"}),
          **brackets, **nh3},
         coords={"site": sites, "receptor": receptors, "period": periods["label"].values,
                 "species": species_list})

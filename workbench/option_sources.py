@@ -185,6 +185,9 @@ BUDGET = {
                         "deposition twice at a bulk collector"),
     "bulk_wet_factor": ("from memory", "0.8, a typical wet-only/bulk ratio of sulfate "
                         "and nitrate at rural sites"),
+    "bulk_wet_factor_ion": ("our choice", "empty: every ion takes bulk_wet_factor (the "
+                            "funnel's gain differs by ion, from memory: give paired "
+                            "wet-only and bulk data's own ratios)"),
     "min_air_coverage": ("common practice", "75 % data capture for a period mean of air "
                          "concentrations (75 % per quarter in US EPA completeness rules, "
                          "from memory)"),

@@ -509,7 +509,9 @@ def collector_split(screened, periods, options, met, history, collectors) -> dic
         (for a period whose mean was filled from the climatology); ``hour_share``
         (site, period) [1] the bulk samples' share of the sampled hours (NaN: no sample
         in the period); ``estimated`` (site, period) bool, a sample that straddles a
-        change has a piece in the period (its share split by the straddle rule).
+        change has a piece in the period (its share split by the straddle rule);
+        ``beta``, ``interval``, ``period`` (pieces) each piece's bulk share [1], its
+        sample and its period, in the order of the wet chain's sample weights.
         :math:`\\beta_{ip}` is 1 under bulk, 0 under wet-only
         (:func:`sample_collectors`), the split share for a straddling sample.
     """
@@ -566,5 +568,7 @@ def collector_split(screened, periods, options, met, history, collectors) -> dic
         out["hour_share"] = np.where(h > 0, per(((table["end"].values - table["start"].values)
                                                  / _HOUR) * beta_h) / h, np.nan)
     out["estimated"] = per(st.astype(float)) > 0
+    # each piece's bulk share, for the Monte Carlo's redrawn share (workbench/analysis/bulk.py)
+    out["beta"], out["interval"], out["period"] = beta, i, table["period"].values
     return out
 

@@ -29,6 +29,7 @@ import numpy as np
 import pandas as pd
 
 from ..budget import COMPONENTS
+from .bulk import bulk_parts, piece_betas  # noqa: F401  (bulk_parts moved there)
 
 #: Dry species of the budget, in the order of :data:`workbench.budget.COMPONENTS`.
 DRY_SPECIES = tuple(c[2] for c in COMPONENTS if c[1] == "dry")
@@ -62,6 +63,10 @@ class DryPieces:
     #: analyses apart (:func:`workbench.analysis.uncertainty.nss_dry_draws`). None:
     #: not a non-sea-salt component.
     seasalt: np.ndarray | None = None
+    #: (n,) bool of non-sea-salt pSO4 only: the row's pNa was below detection, its
+    #: sea-salt sulfate from the substitute of ``[budget] air_censored`` (drawn with
+    #: ``censored_rel_sd``, :func:`workbench.analysis.noise.site_noise`). None: none.
+    seasalt_censored: np.ndarray | None = None
 
 
 @dataclass
@@ -81,6 +86,9 @@ class WetPieces:
     #: laboratory periods)
     start: np.ndarray | None = None
     end: np.ndarray | None = None
+    #: (m,) int, each piece's row in the wet chain's sample-weights table (where the
+    #: ``collector_split`` stage's bulk share of each piece is found)
+    row: np.ndarray | None = None
 
 
 @dataclass
@@ -98,10 +106,13 @@ class SiteLayer:
     #: named, a laboratory of the site's own) of the precipitation and of the air samples
     lab_ids: list = field(default_factory=lambda: [None])
     air_lab_ids: list = field(default_factory=lambda: [None])
-    #: wet component index -> (P,) share of the component's deposition that its bulk
-    #: samples carry after ``bulk_wet_factor`` (``bulk_correction = "scale_wet"``) [1];
-    #: empty otherwise
+    #: wet component index -> :class:`workbench.analysis.bulk.BulkPart`: the share of
+    #: the component's deposition that its bulk samples carry (``bulk_correction =
+    #: "scale_wet"``); empty otherwise
     bulk_part: dict = field(default_factory=dict)
+    #: (m,) bulk share of each wet piece [1] where a collector changed (the share of a
+    #: period holding the change is redrawn with the samples); None otherwise
+    bulk_beta: np.ndarray | None = None
 
 
 @dataclass
@@ -189,21 +200,26 @@ def _row_classes(receptors, start, end, history):
     return out
 
 
-def _seasalt_rows(pr, r, air):
+def _seasalt_rows(pr, r, air, censored="half"):
     """(n, P, R) sea-salt sulfate deposition each nss pSO4 row had taken off [mol m-2]:
     its contribution over its nss concentration (the row's air volume at its Vd) times
     0.0605 pNa (Keene et al. 1986, :func:`workbench.wet.seasalt.seawater_ratio`); 0 where
-    pNa is missing (total pSO4 used) or the nss concentration is 0."""
+    pNa is missing (total pSO4 used) or the nss concentration is 0.  A pNa below
+    detection takes the budget's substitute (`censored`, ``[budget] air_censored``).
+    Also (n,) whether the row's pNa was below detection."""
+    from ..dryflux import _censored_values
     from ..wet.seasalt import seawater_ratio
-    na = np.asarray(air["pNa"].values, float)[r["air_row"]]
+    na_all, cens_all = _censored_values(air, "pNa", censored)
+    na = np.asarray(na_all, float)[r["air_row"]]
+    cens = np.asarray(cens_all, bool)[r["air_row"]]
     conc = np.asarray(r["conc"], float)
     ok = np.isfinite(na) & np.isfinite(conc) & (conc != 0)
     per_c = np.where(ok, seawater_ratio("SO4", "Na") * np.where(ok, na, 0.0)
                      / np.where(ok, conc, 1.0), 0.0)
-    return pr * per_c[:, None, None]
+    return pr * per_c[:, None, None], cens & ok
 
 
-def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False):
+def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False, censored="half"):
     from ..drycomponents import row_filled_deposition_share
     from ..drypairs import component_rows
     from ..dryflux import period_axes, share_to_periods
@@ -224,6 +240,7 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False):
         _, c_fill = rows["vd_cum"][sp]          # the Vd of `sp` in every part
         per_row, si, filled, cens, member, sampler, start, end = ([] for _ in range(8))
         ss = [] if (nss and sp == "pSO4" and "pNa" in air) else None
+        ss_cens = []
         samplers = air["sampler_id"].values.astype(str)
         for name, r, factor in parts:
             *_, pr = share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"],
@@ -232,7 +249,9 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False):
             a, b = r["a"], r["b"]
             per_row.append(factor * np.where(np.isfinite(pr), pr, 0.0))
             if ss is not None:
-                ss.append(_seasalt_rows(per_row[-1], r, air))
+                s_rows, s_cens = _seasalt_rows(per_row[-1], r, air, censored)
+                ss.append(s_rows)
+                ss_cens.append(s_cens)
             si.append(r["site_index"])
             # the share of the deposition that the hours not modelled (filled, or
             # without any Vd: the budget's reckoning of them) carry, per sampling period
@@ -248,6 +267,7 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False):
             end.append(np.asarray(r["end"]))
         per_row, si = np.concatenate(per_row), np.concatenate(si)
         ss = None if ss is None else np.concatenate(ss)
+        ss_cens = np.concatenate(ss_cens) if ss is not None else None
         filled, cens = np.concatenate(filled), np.concatenate(cens)
         member, sampler = np.concatenate(member), np.concatenate(sampler)
         start = np.concatenate(start).astype("datetime64[ns]")
@@ -266,7 +286,9 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False):
                                    start[sel], end[sel],
                                    _row_classes(recs, start[sel], end[sel],
                                                 (histories or {}).get(s)),
-                                   None if ss is None else ss[sel][:, :, :n_r])
+                                   None if ss is None else ss[sel][:, :, :n_r],
+                                   None if ss is None or not ss_cens[sel].any()
+                                   else ss_cens[sel])
     return out
 
 
@@ -310,7 +332,8 @@ def _wet_layers(screened, wet, periods, wet_options, met, sites, ions):
         out[k] = WetPieces(inverse, p[sel], np.where(np.isfinite(weight[sel]), weight[sel], 0.0),
                            conc, valid, cens, len(local), ident,
                            np.asarray(screened.variables["start"].values[local], "datetime64[ns]"),
-                           np.asarray(screened.variables["end"].values[local], "datetime64[ns]"))
+                           np.asarray(screened.variables["end"].values[local], "datetime64[ns]"),
+                           sel)
     return out, fills, pwms
 
 
@@ -350,7 +373,7 @@ def linear_layer(result, study, which: str = "budget", overrides=None) -> Linear
     catalogue = study.catalogue(overrides)
     histories = {sid: (own, ch) for sid, own, ch in land_use_history(catalogue)}
     dry = _dry_layers(rows, periods, sites, ds.sizes["receptor"], study.inputs.air, histories,
-                      nss=bud_opt.sulfate_basis == "nss")
+                      nss=bud_opt.sulfate_basis == "nss", censored=bud_opt.air_censored)
     wet = study.wet(wet_opt, periods) if result.screened is not None else None
     tracer = wet_opt.seasalt_tracer
     nss = (bud_opt.sulfate_basis == "nss" and wet is not None and "dep_nssSO4" in wet)
@@ -361,53 +384,11 @@ def linear_layer(result, study, which: str = "budget", overrides=None) -> Linear
     by_id = {c.id: c for c in catalogue}
     wet_component = {j: ("nssSO4" if (sp == "SO4" and nss) else sp)
                      for j, (_, path, sp) in enumerate(COMPONENTS) if path == "wet"}
-    bulk = bulk_parts(result, study, wet, catalogue, periods, sites, overrides)
+    bulk, raw = bulk_parts(result, study, wet, catalogue, periods, sites, overrides)
     layers = [SiteLayer(dry[k], wet_pieces[k], fills[k], pwms[k],
                         change_instants(by_id.get(s), "gauge"),
                         change_instants(by_id.get(s), "laboratory"),
                         laboratory_ids(by_id.get(s)), laboratory_ids(by_id.get(s), air=True),
-                        bulk[k])
+                        bulk[k], piece_betas(raw, wet_pieces[k]) if bulk[k] else None)
               for k, s in enumerate(sites)]
     return LinearLayer(ds, layers, period_years(periods), wet_component, tracer)
-
-
-def bulk_parts(result, study, wet, catalogue, periods, sites, overrides=None) -> list:
-    """Per site: wet component index -> (P,) share of the component's deposition that
-    its bulk samples carry after the scaling of ``bulk_correction = "scale_wet"`` [1]
-    (empty dicts under another correction or without precipitation).
-
-    The budget (:func:`workbench.budget.assemble`) writes D = D0 (1 - s (1 - f)), s the
-    bulk samples' share of D0 (1 in a period wholly under bulk), f ``bulk_wet_factor``;
-    the bulk part of D is b = s f / (1 - s (1 - f)), so a drawn factor f' = f u gives
-    D' = D (1 + b (u - 1)).  The shares are those of the budget, from the same functions.
-    """
-    bud = result.options["budget"]
-    out = [dict() for _ in sites]
-    if bud.bulk_correction != "scale_wet" or wet is None:
-        return out
-    from ..budget import _collector_split_on, _wet_bulk_share
-    from ..surfacehistory import collector_shares
-    labels = periods["label"].values
-    n_p = len(labels)
-    share, _ = collector_shares(catalogue, sites, periods)
-    split = _collector_split_on(study.collector_split(result.options["wet"], periods, overrides),
-                                sites, n_p)
-    if split is not None:
-        share = np.where(np.isfinite(split["hour_share"]), split["hour_share"], share)
-    if not (share > 0).any():
-        return out
-    w = wet.reindex(site=sites, period=labels)
-    whole = share >= 1.0
-    straddle = (share > 0) & ~whole
-    f = float(bud.bulk_wet_factor)
-    for j, (_, path, sp) in enumerate(COMPONENTS):
-        if path != "wet":
-            continue
-        dep_share = _wet_bulk_share(split, w, sp, bud)[0] if split is not None else share
-        s = np.where(whole, 1.0, np.where(straddle, dep_share, 0.0))
-        den = 1.0 - s * (1.0 - f)
-        b = np.where(den > 0, s * f / np.where(den > 0, den, 1.0), 0.0)
-        for k in range(len(sites)):
-            if b[k].any():
-                out[k][j] = b[k]
-    return out

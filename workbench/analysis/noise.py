@@ -435,15 +435,21 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
             # of the same sample: an error of its own (stream "air" of member pNa), and
             # the pNa laboratory's bias
             ss_id = [("pNa",) + tuple(i[1:]) if i else ("pNa",) for i in rows.ident]
-            air_ss[sp] = keyed_normal_factor(key, "air", ss_id, opt.air_rel_sd, d)
+            # a pNa below detection: its own spread around the substitute, as every
+            # value below detection (censored_rel_sd), and no calibration bias on it
+            ss_cens = getattr(rows, "seasalt_censored", None)
+            ss_cens = (np.zeros(len(rows.ident), bool) if ss_cens is None
+                       else np.asarray(ss_cens, bool))
+            sd_ss = (np.where(ss_cens, opt.censored_rel_sd, opt.air_rel_sd) if ss_cens.any()
+                     else opt.air_rel_sd)
+            air_ss[sp] = keyed_normal_factor(key, "air", ss_id, sd_ss, d)
             if sd_lab > 0 and rows.start is not None:
                 if "pNa" not in lab_air:
                     lab_air["pNa"] = _lab_bias(opt, key, run_key, "air", "pNa",
                                                ANALYTE.get("pNa", "pNa"), lab_changes,
                                                air_ids, sd_lab, d, n_years, year0)
                 air_ss[sp] *= sample_lab_bias(lab_air["pNa"], lab_changes, rows.start,
-                                              rows.end, year0, n_years,
-                                              np.zeros(len(rows.ident), bool))
+                                              rows.end, year0, n_years, ss_cens)
         # a fill error acts on the hours not modelled only: none drawn without them
         sd_fill = np.where((rows.filled > 0).any(axis=(1, 2)), opt.vd_fill_rel_sd, 0.0)
         vd_fill[sp] = keyed_normal_factor(key, f"vd_fill:{sp}", rows.ident, sd_fill, d) - 1.0

@@ -6,7 +6,10 @@ Factors (scenario section ``[sensitivity]``, table ``factors``: name -> range):
   ``vd_<species>`` the Vd of a dry species, ``gauge_catch`` every precipitation
   depth, ``precip_conc`` every precipitation concentration, ``air_conc`` every air
   concentration (a calibration bias; the random per-sample errors are the Monte
-  Carlo's, :mod:`.uncertainty`);
+  Carlo's, :mod:`.uncertainty`), ``bulk_wet_factor`` every bulk collector's wet-only /
+  bulk ratio under ``bulk_correction = "scale_wet"`` (on the bulk samples' part of the
+  wet deposition; added to the default factors where a site has bulk samples,
+  :func:`with_bulk_factor`);
 * inside the engine (each distinct value runs the pipeline, through the stage caches
   of :meth:`workbench.pipeline.Study.run`): ``wetness_rule`` (a list of rules, drawn
   with equal probability), ``fine_fraction_<particle>`` [1] and ``fine_mmd_<particle>``
@@ -34,8 +37,9 @@ import numpy as np
 import pandas as pd
 
 from .layer import DRY_SPECIES, linear_layer
-from .sensitivity_options import (OUTPUT_AMOUNTS, OUTPUTS, PERIOD_UNITS,  # noqa: F401
-                                  SensitivityOptions, factor_kind, output_unit)
+from .sensitivity_options import (BULK_FACTOR_RANGE, OUTPUT_AMOUNTS, OUTPUTS,  # noqa: F401
+                                  PERIOD_UNITS, SensitivityOptions, _default_factors,
+                                  factor_kind, output_unit)
 from .uncertainty import SiteNoise, component_draws, totals_of
 
 
@@ -164,12 +168,14 @@ def linear_outputs(layer, site: int, values: dict, n: int) -> dict:
         vd[:, 0, k] = col(f"vd_{sp}")[:, 0]
     n_s = ls.wet.n_samples if ls.wet is not None else 0
     pc = col("precip_conc")
+    # the bulk factor acts where the site's wet has a bulk part (scale_wet) only
+    bulk = col("bulk_wet_factor") if "bulk_wet_factor" in values and ls.bulk_part else None
     noise = SiteNoise(
         vd=vd, gauge=col("gauge_catch"), depth=np.ones((n, n_s)),
         pconc={ion: pc * np.ones((1, n_s)) for ion in (ls.wet.conc if ls.wet else {})},
         air={sp: col("air_conc") * np.ones((1, len(p.censored))) for sp, p in ls.dry.items()},
         vd_fill={sp: np.zeros((n, len(p.censored))) for sp, p in ls.dry.items()},
-        pwm_fill={ion: pc * np.ones((1, n_p)) for ion in ls.pwm})
+        pwm_fill={ion: pc * np.ones((1, n_p)) for ion in ls.pwm}, bulk=bulk)
     # the factors are the same in every year: one year axis that every period reads
     one_year = dataclasses.replace(layer, period_year=np.zeros_like(layer.period_year))
     return totals_of(component_draws(one_year, site, noise, 0))
@@ -211,10 +217,14 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
             coords = {k: [str(v) for v in ds[k].values] for k in ("site", "receptor", "period")}
             y = np.full((len(x),) + tuple(len(v) for v in coords.values()) + (len(OUTPUTS),),
                         np.nan)
-            # what the budget lacks (no engine factor changes which data a site has)
+            # what the budget lacks (no engine factor changes which data a site has),
+            # and the cells with bulk-collector samples under scale_wet
             coords["data"] = data_notes(ds)
             table = res.table
             coords["pairs"] = set(zip(table["site"].astype(str), table["receptor"].astype(str)))
+            coords["bulk"] = {(k, p): bool(any(bp.b[p] > 0 for bp in ls.bulk_part.values()))
+                              for k, ls in enumerate(layer.sites)
+                              for p in range(ds.sizes["period"])}
         rows = np.asarray(rows)
         values = {names[i]: x[rows, i] for i in linear}
         for s in range(len(coords["site"])):
@@ -259,7 +269,8 @@ def sobol(study, base_options: dict, options: SensitivityOptions, run_kwargs=Non
         for i, name in enumerate(prob["names"]):
             rows.append((*cell, el, quantity, name, si["S1"][i], si["S1_conf"][i],
                          si["ST"][i], si["ST_conf"][i],
-                         row_note(name, el, quantity, coords["data"][(s, r, p)])))
+                         row_note(name, el, quantity, coords["data"][(s, r, p)],
+                                  coords["bulk"].get((s, p)))))
     return pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
                                        "factor", "S1", "S1_conf", "ST", "ST_conf", "note"])
 
@@ -319,7 +330,8 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
             rows.append((*cell, el, quantity, nm, _label(nm, options, x[1 + 2 * i, i]),
                          _label(nm, options, x[2 + 2 * i, i]), _label(nm, options, base[i]),
                          conv(lo), conv(hi), b, unit,
-                         row_note(nm, el, quantity, coords["data"][(s, r, p)])))
+                         row_note(nm, el, quantity, coords["data"][(s, r, p)],
+                                  coords["bulk"].get((s, p)))))
     return pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
                                        "factor", "low", "high", "base", "output_low",
                                        "output_high", "output_base", "unit", "note"])
@@ -362,10 +374,38 @@ def _scales(name, path, species) -> bool:
     """Whether the linear factor `name` scales the component (path, species)."""
     if name.startswith("vd_"):
         return path == "dry" and species == name[3:]
-    return path == {"gauge_catch": "wet", "precip_conc": "wet", "air_conc": "dry"}.get(name)
+    return path == {"gauge_catch": "wet", "precip_conc": "wet", "air_conc": "dry",
+                    "bulk_wet_factor": "wet"}.get(name)
 
 
-def row_note(name, element, quantity, data) -> str:
+def bulk_sites(catalogue) -> set:
+    """Ids of the sites with a bulk collector now or before a declared change."""
+    from ..surfacehistory import collector_history
+    out = {s.id for s in catalogue if s.collector == "bulk"}
+    for sid, _, changes in collector_history(catalogue):
+        if any("bulk" in (a, b) for _, a, b in changes):
+            out.add(sid)
+    return out
+
+
+def with_bulk_factor(options: SensitivityOptions, budget_options, catalogue) -> SensitivityOptions:
+    """`options` with ``bulk_wet_factor`` over [0.9, 1.1] added to its factors where it
+    acts: the factors are the defaults (a table given in ``[sensitivity] factors`` is
+    kept as given: name ``bulk_wet_factor`` there to have it), the budget scales the
+    bulk deposition (``bulk_correction = "scale_wet"``) and a site analysed
+    (``options.sites``, else every site of `catalogue`) has bulk-collector samples.
+    Otherwise `options` itself (a run without bulk samples keeps its indices)."""
+    if (budget_options.bulk_correction != "scale_wet" or "bulk_wet_factor" in options.factors
+            or dict(options.factors) != _default_factors()):
+        return options
+    have = bulk_sites(catalogue)
+    if not (have & set(options.sites) if options.sites else have):
+        return options
+    return dataclasses.replace(options, factors={**options.factors,
+                                                 "bulk_wet_factor": BULK_FACTOR_RANGE})
+
+
+def row_note(name, element, quantity, data, has_bulk=None) -> str:
     """The note of a row of sensitivity.csv or tornado.csv [text] ("" for none).
 
     An index 0 because the factor reaches only components without data at the site
@@ -381,6 +421,9 @@ def row_note(name, element, quantity, data) -> str:
         The output (:data:`OUTPUTS`).
     data : tuple
         ``(lacking, idle)`` of the cell (:func:`data_notes`).
+    has_bulk : bool, optional
+        The cell's wet has a bulk-collector part (``scale_wet``); False says that
+        ``bulk_wet_factor`` has no effect there.
     """
     from ..budget import COMPONENTS
     lacking, idle = data
@@ -394,6 +437,9 @@ def row_note(name, element, quantity, data) -> str:
         if reach and all(c in idle for c in reach):
             parts.append("no effect for want of data: " + "; ".join(
                 f"{path} {sp} {idle[(path, sp)]}" for path, sp in reach))
+    if (name == "bulk_wet_factor" and has_bulk is False and not parts
+            and quantity in ("wet", "total", "potential_acidity")):
+        parts.append("no effect: no bulk-collector samples at the site in the period")
     if lacking.get(key):
         parts.append(f"the total lacks {lacking[key]}: indices of its measured part")
     return "; ".join(parts)
@@ -467,8 +513,8 @@ def _write_sensitivity(sc, out, quiet):
 
     from ..pipeline import Study
     from ..writers import atomic_write
-    opt = sc.options["sensitivity"]
     study = Study.from_scenario(sc)
+    opt = with_bulk_factor(sc.options["sensitivity"], sc.options["budget"], study.catalogue())
     _check_cells(sc, study.catalogue(), opt)
     if opt.sites:              # the engine computes the sites analysed only
         study = Study(study.inputs.subset(list(opt.sites)), study.site_overrides)

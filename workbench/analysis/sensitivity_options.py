@@ -15,7 +15,13 @@ from .uncertainty import DEFAULT_VD_GSD
 OUTPUTS = (("S", "wet", "S_wet"), ("S", "dry", "S_dry"), ("S", "total", "S_total"),
            ("N", "wet", "N_wet"), ("N", "dry", "N_dry"), ("N", "total", "N_total"),
            ("S+N", "potential_acidity", "potential_acidity"))
-LINEAR = ("gauge_catch", "precip_conc", "air_conc") + tuple(f"vd_{sp}" for sp in DRY_SPECIES)
+LINEAR = (("gauge_catch", "precip_conc", "air_conc") + tuple(f"vd_{sp}" for sp in DRY_SPECIES)
+          + ("bulk_wet_factor",))
+#: Range of the ``bulk_wet_factor`` multiplier where it is added to the default factors
+#: (:func:`workbench.analysis.sensitivity.with_bulk_factor`): +-1 SD of the Monte
+#: Carlo's ``bulk_factor_rel_sd`` default 0.1 (from memory: wet-only / bulk ratios of
+#: rural sites spread over roughly 0.7-0.9 around 0.8), as the Vd factors span +-1 GSD.
+BULK_FACTOR_RANGE = (0.9, 1.1)
 WETNESS = ("met", "inferred", "always_dry", "always_wet")
 #: Range of an ``rc_scale_<gas>`` factor named with an empty range: a factor of 2 either
 #: way (our choice, common practice for a resistance known to within about a factor 2).
@@ -46,7 +52,10 @@ class SensitivityOptions:
     factors : dict
         factor name -> [low, high] (a uniform range) or, for ``wetness_rule``, a list
         of rules; ``rc_scale_<gas>`` named with ``[]`` takes [0.5, 2.0].  Default: the Vd of every dry species over +-1 GSD of the
-        ``[uncertainty]`` defaults, gauge catch and the concentrations +-10 %.
+        ``[uncertainty]`` defaults, gauge catch and the concentrations +-10 %, and,
+        where a site analysed has bulk-collector samples under ``bulk_correction =
+        "scale_wet"``, ``bulk_wet_factor`` (a multiplier of every ion's factor) over
+        [0.9, 1.1] (:func:`workbench.analysis.sensitivity.with_bulk_factor`).
     sites : list
         Sites to analyse (empty: every site).
     receptors : list

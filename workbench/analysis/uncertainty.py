@@ -29,7 +29,8 @@ draw is a few matrix products per site and never re-runs the engine:
   and :math:`\\delta` the analytical error (random per sample) times the
   laboratory's calibration bias (systematic: one per ion and laboratory period, shared
   by the sites naming one laboratory); under ``bulk_correction = "scale_wet"`` the
-  bulk samples' part of D takes a drawn ``bulk_wet_factor``; a PWM
+  bulk samples' part of D takes a drawn ``bulk_wet_factor`` and, in a period holding a
+  collector change, a share redrawn with the samples (:mod:`.bulk`); a PWM
   filled from the multi-year seasonal means gets its own error instead, and the
   non-sea-salt sulfate is recomputed from the drawn SO4 and tracer PWMs.
 
@@ -49,6 +50,7 @@ import xarray as xr
 
 from ..budget import COMPONENTS, OXIDIZED_N, REDUCED_N
 from ..units import element_deposition_in
+from .bulk import HELD, PRECIP, apply_bulk
 from .layer import DRY_SPECIES, LinearLayer, linear_layer
 # the factors of the draws, named by what they draw for (site, year, sample)
 from .noise import (SAMPLE_STREAM, YEAR_STREAM, SiteNoise, _normal_factor,  # noqa: F401
@@ -56,6 +58,8 @@ from .noise import (SAMPLE_STREAM, YEAR_STREAM, SiteNoise, _normal_factor,  # no
 from .quantile_tables import (QUANTILES, SUFFIXES, TOTALS, quantile_table,  # noqa: F401
                               range_note, report_section, summary_dataset,
                               summary_range_notes)
+# the wet side of a draw (wet_ratios, _gauge_by_piece were defined here before)
+from .wetdraws import _gauge_by_piece, _safe_ratio, wet_ratios
 
 
 #: Geometric standard deviation of the Vd model factor per species [1].  Values chosen
@@ -238,11 +242,6 @@ class UncertaintyOptions:
 
 # ------------------------------------------------------------------------------ draws
 
-def _safe_ratio(num, den):
-    with np.errstate(invalid="ignore", divide="ignore"):
-        return np.where(den != 0, num / np.where(den != 0, den, 1.0), 0.0)
-
-
 def dry_ratio(pieces, vd_factor, air, vd_fill, class_factor=None):
     """Draws of a dry component over the point: (D, R, P) [1].
 
@@ -339,77 +338,6 @@ def nss_dry_draws(pieces, vd_factor, air, air_seasalt, vd_fill, class_factor=Non
     return np.maximum(acc, 0.0).transpose(0, 2, 1)
 
 
-def wet_ratios(wet, pwm_point, filled, gauge, depth, pconc, pwm_fill, n_periods, wanted,
-               tracer="Na", gauge_piece=None):
-    """Draws of the wet deposition of each ion over the point: ion -> (D, P) [1].
-
-    Parameters
-    ----------
-    wet : WetPieces
-    pwm_point : dict
-        ion -> (P,) point PWM [mol m-3] (for the non-sea-salt sulfate).
-    filled : ndarray (P,) of bool or None
-        PWM filled from the multi-year seasonal means.
-    gauge : ndarray (D, P)
-        Gauge catch factor per draw and period [1].
-    depth : ndarray (D, n_samples)
-    pconc, pwm_fill : dict
-        ion -> (D, n_samples) and (D, P) factors [1].
-    wanted : iterable of str
-        Ions (``SO4``, ``NO3``, ``NH4``) and ``nssSO4``.
-    gauge_piece : tuple of ndarray, optional
-        ``(catch (D, Y G), onto (Y G, m))``: their product is the gauge catch of each
-        (sample, period) piece when the site changed its gauge [1]
-        (:func:`_gauge_by_piece`); it multiplies the piece's depth (in the precipitation and in the PWM's
-        weights alike), so a period under two gauges takes each one's catch by the
-        share of its depth under it; `gauge` is then used for a period without
-        samples only.  None: one catch per period (`gauge`).
-    """
-    onehot = np.zeros((len(wet.sample), n_periods))
-    onehot[np.arange(len(wet.sample)), wet.period] = 1.0
-    w = wet.weight[:, None] * onehot                                 # (m, P) [mm]
-    eps = depth[:, wet.sample]                                       # (D, m), a copy
-    if gauge_piece is not None:
-        # (gauge catch per draw and year-gauge (D, Y G), onto the pieces (Y G, m)):
-        # made here and multiplied in place, so that no second (D, m) array stays
-        g, onto = gauge_piece
-        eps *= g @ onto
-    precip = np.maximum(1.0 + _safe_ratio((eps - 1.0) @ w, w.sum(0)), 0.0)
-    if gauge_piece is not None:            # the catch is in the depths already
-        precip = np.where(w.sum(0) > 0, precip, gauge)
-        gauge = 1.0
-    pwm = {}
-    for ion in set(wanted) | ({"SO4", tracer} if "nssSO4" in wanted else set()):
-        if ion not in wet.conc:
-            continue
-        ok = wet.valid[ion][:, None] * w
-        cw = wet.conc[ion][:, None] * ok
-        num = 1.0 + _safe_ratio((eps * pconc[ion][:, wet.sample] - 1.0) @ cw, cw.sum(0))
-        den = 1.0 + _safe_ratio((eps - 1.0) @ ok, ok.sum(0))
-        with np.errstate(invalid="ignore", divide="ignore"):   # den 0: every valid
-            r = np.where(den > 0, np.maximum(num, 0.0) / np.where(den > 0, den, 1.0),
-                         1.0)                  # sample without depth: the point PWM
-        if filled is not None and filled.any():
-            r = np.where(filled[None, :], pwm_fill[ion], r)
-        pwm[ion] = r
-    out = {}
-    for ion in wanted:
-        if ion == "nssSO4":
-            from ..wet.seasalt import non_seasalt
-            if "SO4" not in pwm or tracer not in pwm:
-                continue
-            so4, tr = pwm_point["SO4"], pwm_point[tracer]
-            point = non_seasalt(so4, tr, "SO4", tracer)
-            drawn = non_seasalt(so4 * pwm["SO4"], tr * pwm[tracer], "SO4", tracer)
-            r = np.where(np.isfinite(point) & (point != 0), _safe_ratio(drawn, point), 1.0)
-        elif ion in pwm:
-            r = pwm[ion]
-        else:
-            continue
-        out[ion] = gauge * precip * r
-    return out
-
-
 def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int) -> np.ndarray:
     """Draws of every component at one site: (D, R, P, C) [mol m-2].
 
@@ -455,41 +383,30 @@ def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int)
         gp = noise.gauge_periods
         if gp is not None and gp.shape[2] > 1 and ls.wet.start is not None:
             gauge, piece = _gauge_by_piece(ls, gp, yi, ds)
+        parts = getattr(ls, "bulk_part", {})
+        # a period holding a collector change: its bulk share redrawn with the samples
+        beta = getattr(ls, "bulk_beta", None)
+        keys = sorted({("precip" if m == PRECIP else layer.wet_component[j])
+                       for j, p in parts.items() for m in np.unique(p.redraw) if m != HELD})
+        bulk = (beta, keys) if beta is not None and keys else None
         wr = wet_ratios(ls.wet, ls.pwm, ls.wet_filled, gauge, noise.depth,
-                        noise.pconc, noise.pwm_fill, n_p, wanted, layer.tracer, piece)
+                        noise.pconc, noise.pwm_fill, n_p, wanted, layer.tracer, piece, bulk)
+        wr, shares = wr if bulk is not None else (wr, {})
         for j, ion in layer.wet_component.items():
             if ion in wr:
                 r = wr[ion]
-                b = getattr(ls, "bulk_part", {}).get(j)
-                if noise.bulk is not None and b is not None:
-                    # the bulk samples' part takes the drawn bulk_wet_factor
-                    r = r * (1.0 + b[None, :] * (noise.bulk[:, yi] - 1.0))
+                p = parts.get(j)
+                if p is not None and (noise.bulk is not None or shares):
+                    # the bulk samples' part takes the drawn bulk_wet_factor (and, in a
+                    # period holding a collector change, its drawn share)
+                    sh = (np.where(p.redraw[None, :] == PRECIP, shares.get("precip", np.nan),
+                                   shares.get(ion, np.nan)) if shares else None)
+                    r = apply_bulk(r, p, None if noise.bulk is None else noise.bulk[:, yi], sh)
                 ratio[..., j] = r[:, None, :]
     out = point[None] * ratio
     for j, (drawn, same) in direct.items():
         out[..., j] = np.where(same[None], drawn, out[..., j])
     return out
-
-
-def _gauge_by_piece(ls, gauge_periods, yi, ds):
-    """The gauge catch of a site that changed its gauge: ((D, P) of the gauge in force at
-    the middle of each period, for a period without samples; the factors of each
-    (sample, period) piece as ``(catch (D, Y G), onto (Y G, m))``, whose product gives
-    each piece the catch of each gauge by the share of the sample's hours under it).  Each piece takes the factors of its period's year (``"each_year"``)."""
-    from .noise import hour_shares
-    wet = ls.wet
-    changes = ls.gauge_changes
-    n_y, n_g = gauge_periods.shape[1], gauge_periods.shape[2]
-    share = hour_shares(changes, wet.start, wet.end)                  # (n_samples, G)
-    m = len(wet.sample)
-    onto = np.zeros((n_y, n_g, m))
-    onto[yi[wet.period], :, np.arange(m)] = share[wet.sample]
-    piece = (np.ascontiguousarray(gauge_periods).reshape(gauge_periods.shape[0], -1),
-             onto.reshape(n_y * n_g, m))
-    p0 = np.asarray(ds["period_start"].values, "datetime64[ns]")
-    p1 = np.asarray(ds["period_end"].values, "datetime64[ns]")
-    g_of_p = np.searchsorted(changes, p0 + (p1 - p0) // 2, side="right")
-    return gauge_periods[:, yi, g_of_p], piece
 
 
 def totals_of(comp: np.ndarray) -> dict:

@@ -166,6 +166,8 @@ class SobolExplorer(SavedText, widgets.VBox):
         opt = dataclasses.replace(self.session.scenario.options["sensitivity"],
                                   samples=int(self.samples_w.value), sites=(site,),
                                   receptors=(rec,))
+        # the bulk collector's factor where the site has bulk samples under scale_wet
+        opt = S.with_bulk_factor(opt, st.budget, study.catalogue(st.overrides))
         base = {"wet": st.wet, "dry": st.dry, "budget": st.budget,
                 "fixed_velocity": dict(st.fixed_velocity)}
         kw = {"resolution": "year", "start": start, "end": end, "receptors": [rec],
