@@ -322,6 +322,40 @@ def shown_figure(fig) -> go.Figure:
 
 
 def refresh(widget: go.FigureWidget, fig) -> dict:
+    """Copy a new figure into a displayed FigureWidget.
+
+    A widget made by :func:`figure_widget` and placed in a box is opened anew in the
+    page with the whole new figure (:meth:`OpenedWhole.reopen`); any other gets the
+    changed properties in one update message (:func:`send_changes`).
+
+    Parameters
+    ----------
+    widget : plotly.graph_objects.FigureWidget
+        Made by :func:`figure_widget` (it remembers what it shows).
+    fig : plotly Figure or dict
+        The new figure, or its plain JSON spec.
+
+    Returns
+    -------
+    dict
+        As :func:`send_changes` (a figure that did not change is not opened anew).
+    """
+    boxes = _boxes_holding(widget) if isinstance(widget, OpenedWhole) else []
+    if not boxes or widget.comm is None:
+        return send_changes(widget, fig)
+    old = widget._wb_detach()                # no message to the model about to close
+    out = None
+    try:
+        out = send_changes(widget, fig)
+    finally:
+        if out is not None and not (out["restyled"] or out["relayout"] or out["replaced"]):
+            widget.comm = old                # nothing changed: the model shown stays
+        else:
+            widget._wb_attach_new(old, boxes)
+    return out
+
+
+def send_changes(widget: go.FigureWidget, fig) -> dict:
     """Copy a new figure into a displayed FigureWidget in one update message.
 
     Parameters
@@ -459,6 +493,53 @@ class OpenedWhole(go.FigureWidget):
         if getattr(self, "_wb_opening", False):
             return
         super().open()
+
+    def reopen(self) -> bool:
+        """Open a new comm with the whole figure (a new model in the page) and show it
+        in place of the old one in every box holding this widget; the old comm is
+        closed (its model and views leave the page).
+
+        Why: anywidget 0.11's front end drops every message to a model whose module
+        took more than 2 s to load, for the life of that model in the page (a loaded
+        machine; also the models a reloaded page makes).  An update sent to such a
+        model never drew: the plot kept its first drawing while the numbers beside it
+        changed.  A new model starts from its opening state, which holds the figure.
+
+        Returns
+        -------
+        bool
+            False (nothing done) when no box holds the widget or its comm is closed: a
+            widget shown on its own cannot be put back in its place.
+        """
+        boxes = _boxes_holding(self)
+        if not boxes or self.comm is None:
+            return False
+        self._wb_attach_new(self._wb_detach(), boxes)
+        return True
+
+    def _wb_detach(self):
+        """Take the comm off the widget (updates of the Python side then send nothing)."""
+        from ipywidgets.widgets.widget import _instances
+        old = self.comm
+        _instances.pop(old.comm_id, None)
+        self.comm = None
+        self._model_id = None               # else open() reuses the old comm id
+        return old
+
+    def _wb_attach_new(self, old, boxes):
+        """Open a new comm with the current state, point `boxes` at it, close `old`
+        (in this order: the page has the new model before a box names it)."""
+        self.open()
+        for box in boxes:
+            box.send_state("children")
+        old.close()
+
+
+def _boxes_holding(widget) -> list:
+    """The open boxes (VBox, HBox, Tab, Accordion...) whose children hold `widget`."""
+    from ipywidgets.widgets.widget import _instances    # the open widgets, by model id
+    return [w for w in list(_instances.values())
+            if isinstance(w, widgets.Box) and any(c is widget for c in w.children)]
 
 
 def figure_widget(fig) -> go.FigureWidget:
