@@ -29,7 +29,7 @@ BUDGET_PLOT = ".jp-OutputArea .widget-vbox > .js-plotly-plot"
 TAB_PLOT = ".jp-OutputArea .widget-tab-contents > .js-plotly-plot:not(.lm-mod-hidden)"
 
 
-def _wait_titles(page, sel, text, key="y"):
+def _wait_titles(page, tmp_path, sel, text, key="y"):
     """Wait until the plot at `sel` draws `text` in its title `key`; its titles."""
     from playwright.sync_api import TimeoutError as Timeout
     try:
@@ -37,6 +37,7 @@ def _wait_titles(page, sel, text, key="y"):
             f"([sel, text, key]) => {{ const t = ({TITLES})(sel); return t && t[key].includes(text); }}",
             arg=[sel, text, key], timeout=CHANGE_MS)
     except Timeout:
+        _screenshot(page, tmp_path, "stale_plot")
         dom = page.evaluate("() => [...document.querySelectorAll('.js-plotly-plot')].map(e => "
                             "[e.className, e.parentElement.className, !!e._fullLayout])")
         pytest.fail(f"{sel} never drew {text!r} in its {key} title: "
@@ -51,24 +52,24 @@ def test_site_explorer_follows_later_changes_with_a_slow_module(lab, token, page
     page.add_init_script(SLOW_MODULE)
     _run_all(page, lab, token, "site_budget")
     page.wait_for_function(f"() => {{ const d = ({BUDGET})(); return d && d.length >= 10; }}")
-    first = _wait_titles(page, BUDGET_PLOT, "kg")
+    first = _wait_titles(page, tmp_path, BUDGET_PLOT, "kg")
     assert "eq" not in first["y"], first
-    _wait_titles(page, TAB_PLOT, "kg")
+    _wait_titles(page, tmp_path, TAB_PLOT, "kg")
     _screenshot(page, tmp_path, "slow_module_site_first")
     # the unit: every plot shown says eq
     page.locator(".wb-unit select").select_option("eq/ha/yr")
     page.wait_for_function("() => /eq/.test(document.querySelector('.wb-change')?.innerText"
                            " || '')", timeout=CHANGE_MS)
-    budget = _wait_titles(page, BUDGET_PLOT, "eq ha-1")
+    budget = _wait_titles(page, tmp_path, BUDGET_PLOT, "eq ha-1")
     assert "kg" not in budget["y"] and budget["traces"] >= 10, budget
-    tab = _wait_titles(page, TAB_PLOT, "eq ha-1")
+    tab = _wait_titles(page, tmp_path, TAB_PLOT, "eq ha-1")
     assert "kg" not in tab["y"], tab
     _screenshot(page, tmp_path, "slow_module_site_unit")
     # one more control: the receptor, named in the budget's title
     options = page.locator(".wb-receptor select option").all_inner_texts()
     assert len(options) >= 2, options
     page.locator(".wb-receptor select").select_option(label=options[1])
-    budget = _wait_titles(page, BUDGET_PLOT, options[1], key="title")
+    budget = _wait_titles(page, tmp_path, BUDGET_PLOT, options[1], key="title")
     assert "eq ha-1" in budget["y"], budget
     _screenshot(page, tmp_path, "slow_module_site_receptor")
     # a reloaded page (its figures load slowly again) draws the current figures and
@@ -77,10 +78,10 @@ def test_site_explorer_follows_later_changes_with_a_slow_module(lab, token, page
     page.wait_for_timeout(1000)
     page.reload()
     page.wait_for_selector(BUDGET_PLOT)
-    reloaded = _wait_titles(page, BUDGET_PLOT, options[1], key="title")
+    reloaded = _wait_titles(page, tmp_path, BUDGET_PLOT, options[1], key="title")
     assert "eq ha-1" in reloaded["y"], reloaded
     page.locator(".wb-unit select").select_option("mmol/m2/yr")
-    after = _wait_titles(page, BUDGET_PLOT, "mmol")
+    after = _wait_titles(page, tmp_path, BUDGET_PLOT, "mmol")
     assert after["traces"] >= 10, after
     _screenshot(page, tmp_path, "slow_module_site_reloaded")
     _no_javascript_errors(page)
@@ -109,7 +110,7 @@ def test_network_overview_follows_a_unit_change_and_a_reload(lab, token, page, t
     page.add_init_script(SLOW_MODULE)
     _run_all(page, lab, token, "network_overview")
     page.wait_for_function(f"() => {{ const p = ({NETWORK_TITLES})();"
-                           " return p.length === 3 && p.every(x => x.drawn > 0); }}")
+                           " return p.length === 3 && p.every(x => x.drawn > 0); }")
     before = page.evaluate(NETWORK_TITLES)
     assert all("kg" in p["titles"] for p in before), before
     units = page.locator(".wb-network .widget-dropdown select",
@@ -126,7 +127,7 @@ def test_network_overview_follows_a_unit_change_and_a_reload(lab, token, page, t
     page.wait_for_timeout(1000)
     page.reload()
     page.wait_for_function(f"() => {{ const p = ({NETWORK_TITLES})();"
-                           " return p.length === 3 && p.every(x => x.drawn > 0); }}",
+                           " return p.length === 3 && p.every(x => x.drawn > 0); }",
                            timeout=CHANGE_MS)
     page.wait_for_timeout(1000)
     reloaded = page.evaluate(NETWORK_TITLES)

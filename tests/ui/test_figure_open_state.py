@@ -44,7 +44,12 @@ def comms(monkeypatch):
         made.append(_RecordingComm(**kwargs))
         return made[-1]
     monkeypatch.setattr(widget_module.comm, "create_comm", create_comm)
-    return made
+    yield made
+    # close the widgets opened on these comms (else their late close at the end of the
+    # process printed "Exception ignored in Widget.__del__")
+    for w in list(widget_module._instances.values()):
+        if isinstance(w.comm, _RecordingComm):
+            w.close()
 
 
 def _opening_state(comm):
@@ -97,3 +102,59 @@ def test_a_refresh_after_opening_still_updates(comms):
     refresh(w, go.Figure(go.Bar(x=[5.0, 6.0], y=["a", "b"])))
     assert list(w.data[0].x) == [5.0, 6.0]
     assert any(m and m.get("method") == "update" for m in comms[0].sent)
+
+
+def test_a_change_opens_the_figure_anew_in_its_box_with_the_new_figure(comms):
+    """Defect: a later change went to the open model as an update, which anywidget drops
+    for a model whose module took over 2 s to load (the plot kept its first drawing).
+    A changed figure in a box now opens a new comm holding the whole new figure, the
+    box names the new model, and the old comm is closed."""
+    import ipywidgets as widgets
+    from ipywidgets.widgets.widget import _instances
+    w = figure_widget(go.Figure(go.Bar(x=[1.0, 2.0], y=["a", "b"]),
+                                layout={"title": {"text": "kg ha-1 yr-1"}}))
+    w.add_class("wb-budget")
+    box = widgets.VBox([widgets.HTML("numbers"), w])
+    first = w.comm
+    closed = []
+    first.close = lambda *a, **k: closed.append(True)
+    refresh(w, go.Figure(go.Bar(x=[5.0, 6.0], y=["a", "b"]),
+                         layout={"title": {"text": "eq ha-1 yr-1"}}))
+    assert w.comm is not first and closed == [True]
+    data, layout, _ = _opening_state(w.comm)
+    assert list(data[0]["x"]) == [5.0, 6.0]
+    assert layout["title"] == {"text": "eq ha-1 yr-1"}
+    # a class added after the first opening is in the new model too
+    assert "wb-budget" in w.comm.opened["data"]["state"]["_dom_classes"]
+    # the box names the new model (sent after it opened), the old one is gone
+    sent = [m for m in box.comm.sent if m and m.get("method") == "update"]
+    assert sent and sent[-1]["state"]["children"][1] == f"IPY_MODEL_{w.model_id}"
+    assert first.comm_id not in _instances and _instances[w.model_id] is w
+    # the Python side is the new figure (tests and exports read it)
+    assert list(w.data[0].x) == [5.0, 6.0] and w.layout.title.text == "eq ha-1 yr-1"
+    # nothing changed: no new model (no flicker, no 5 MB module sent again)
+    shown = w.comm
+    refresh(w, go.Figure(go.Bar(x=[5.0, 6.0], y=["a", "b"]),
+                         layout={"title": {"text": "eq ha-1 yr-1"}}))
+    assert w.comm is shown and _instances[w.model_id] is w
+
+
+def test_every_change_of_the_site_explorer_reaches_a_new_model(comms):
+    """The site explorer's unit and receptor: the budget and the open tab each open a
+    new comm holding the new axis title and receptor."""
+    from workbench.ui.apps import SiteExplorer
+    from workbench.ui.session import Session
+    from ui.demo_subset import write_demo_subset
+    import tempfile
+    from pathlib import Path
+    with tempfile.TemporaryDirectory() as tmp:
+        scenario = write_demo_subset(Path(tmp) / "one", ("ridge",), 2021, 2021)
+        app = SiteExplorer(Session.open(scenario), site="ridge")
+        app.unit_w.value = "eq/ha/yr"
+        for key in ("budget", "monthly fluxes"):
+            _, layout, _ = _opening_state(app.figs[key].comm)
+            assert "eq ha-1" in layout["yaxis"]["title"]["text"], key
+        other = app.receptor_w.options[1]
+        app.receptor_w.value = other
+        _, layout, _ = _opening_state(app.figs["budget"].comm)
+        assert layout["title"]["text"].endswith(other)
