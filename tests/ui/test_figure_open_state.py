@@ -104,22 +104,33 @@ def test_a_refresh_after_opening_still_updates(comms):
     assert any(m and m.get("method") == "update" for m in comms[0].sent)
 
 
-def test_a_change_opens_the_figure_anew_in_its_box_with_the_new_figure(comms):
-    """Defect: a later change went to the open model as an update, which anywidget drops
-    for a model whose module took over 2 s to load (the plot kept its first drawing).
-    A changed figure in a box now opens a new comm holding the whole new figure, the
-    box names the new model, and the old comm is closed."""
+def _answer(w):
+    """What a page that drew the last update sends back: plotly's trace deltas."""
+    w._js2py_traceDeltas = {"trace_deltas": [{"uid": t.uid} for t in w.data],
+                            "trace_edit_id": w._last_trace_edit_id}
+
+
+def _boxed(title, x):
     import ipywidgets as widgets
-    from ipywidgets.widgets.widget import _instances
-    w = figure_widget(go.Figure(go.Bar(x=[1.0, 2.0], y=["a", "b"]),
-                                layout={"title": {"text": "kg ha-1 yr-1"}}))
+    w = figure_widget(go.Figure(go.Bar(x=x, y=["a", "b"]), layout={"title": {"text": title}}))
     w.add_class("wb-budget")
-    box = widgets.VBox([widgets.HTML("numbers"), w])
+    return w, widgets.VBox([widgets.HTML("numbers"), w])
+
+
+def test_an_unanswered_change_opens_the_figure_anew_in_its_box(comms):
+    """Defect: a later change went to the open model as an update only, which anywidget
+    drops for a model whose module took over 2 s to load (the plot kept its first
+    drawing).  When no page answers the update, the figure opens a new comm holding the
+    whole new figure, the box names the new model, and the old comm is closed."""
+    from ipywidgets.widgets.widget import _instances
+    w, box = _boxed("kg ha-1 yr-1", [1.0, 2.0])
     first = w.comm
     closed = []
     first.close = lambda *a, **k: closed.append(True)
     refresh(w, go.Figure(go.Bar(x=[5.0, 6.0], y=["a", "b"]),
                          layout={"title": {"text": "eq ha-1 yr-1"}}))
+    assert w.comm is first                   # the update first (no event loop here)
+    assert w.reopen_unless_answered(w._last_trace_edit_id)
     assert w.comm is not first and closed == [True]
     data, layout, _ = _opening_state(w.comm)
     assert list(data[0]["x"]) == [5.0, 6.0]
@@ -132,16 +143,55 @@ def test_a_change_opens_the_figure_anew_in_its_box_with_the_new_figure(comms):
     assert first.comm_id not in _instances and _instances[w.model_id] is w
     # the Python side is the new figure (tests and exports read it)
     assert list(w.data[0].x) == [5.0, 6.0] and w.layout.title.text == "eq ha-1 yr-1"
-    # nothing changed: no new model (no flicker, no 5 MB module sent again)
-    shown = w.comm
-    refresh(w, go.Figure(go.Bar(x=[5.0, 6.0], y=["a", "b"]),
-                         layout={"title": {"text": "eq ha-1 yr-1"}}))
-    assert w.comm is shown and _instances[w.model_id] is w
 
 
-def test_every_change_of_the_site_explorer_reaches_a_new_model(comms):
-    """The site explorer's unit and receptor: the budget and the open tab each open a
-    new comm holding the new axis title and receptor."""
+def test_an_answered_or_superseded_change_keeps_the_model(comms):
+    w, box = _boxed("a", [1.0, 2.0])
+    first = w.comm
+    refresh(w, go.Figure(go.Bar(x=[5.0, 6.0], y=["a", "b"]), layout={"title": {"text": "b"}}))
+    edit = w._last_trace_edit_id
+    _answer(w)                                # the page drew it
+    assert not w.reopen_unless_answered(edit) and w.comm is first
+    refresh(w, go.Figure(go.Bar(x=[7.0, 6.0], y=["a", "b"]), layout={"title": {"text": "c"}}))
+    refresh(w, go.Figure(go.Bar(x=[8.0, 6.0], y=["a", "b"]), layout={"title": {"text": "d"}}))
+    assert not w.reopen_unless_answered(edit + 1)        # a later update decides
+    assert w.reopen_unless_answered(edit + 2) and w.comm is not first
+    # a figure on its own (no box) cannot be put back in its place: updates only
+    alone = figure_widget(go.Figure(go.Bar(x=[1.0], y=["a"])))
+    refresh(alone, go.Figure(go.Bar(x=[2.0], y=["a"])))
+    opened = alone.comm
+    assert not alone.reopen_unless_answered(alone._last_trace_edit_id) and alone.comm is opened
+
+
+def test_in_a_kernel_the_wait_runs_on_its_event_loop(comms):
+    """Under a running event loop (the kernel's), an unanswered update opens the figure
+    anew by itself after the wait; nothing changed: no wait, no new model."""
+    import asyncio
+    w, box = _boxed("a", [1.0, 2.0])
+    first = w.comm
+
+    async def change_and_wait(x, title):
+        refresh(w, go.Figure(go.Bar(x=x, y=["a", "b"]), layout={"title": {"text": title}}))
+        assert w.comm is first or title == "b"
+        await asyncio.sleep(0.05)
+
+    import workbench.ui.controls as controls
+    wait = controls.ANSWER_S
+    controls.ANSWER_S = 0.01
+    try:
+        asyncio.run(change_and_wait([5.0, 6.0], "b"))
+        assert w.comm is not first
+        assert _opening_state(w.comm)[1]["title"] == {"text": "b"}
+        shown = w.comm
+        asyncio.run(change_and_wait([5.0, 6.0], "b"))     # the same figure
+        assert w.comm is shown
+    finally:
+        controls.ANSWER_S = wait
+
+
+def test_every_change_of_the_site_explorer_reaches_a_new_model_unanswered(comms):
+    """The site explorer's unit and receptor with no page answering: the budget and the
+    open tab each open a new comm holding the new axis title and receptor."""
     from workbench.ui.apps import SiteExplorer
     from workbench.ui.session import Session
     from ui.demo_subset import write_demo_subset
@@ -152,9 +202,13 @@ def test_every_change_of_the_site_explorer_reaches_a_new_model(comms):
         app = SiteExplorer(Session.open(scenario), site="ridge")
         app.unit_w.value = "eq/ha/yr"
         for key in ("budget", "monthly fluxes"):
-            _, layout, _ = _opening_state(app.figs[key].comm)
+            fig = app.figs[key]
+            assert fig.reopen_unless_answered(fig._last_trace_edit_id), key
+            _, layout, _ = _opening_state(fig.comm)
             assert "eq ha-1" in layout["yaxis"]["title"]["text"], key
         other = app.receptor_w.options[1]
         app.receptor_w.value = other
-        _, layout, _ = _opening_state(app.figs["budget"].comm)
+        fig = app.figs["budget"]
+        assert fig.reopen_unless_answered(fig._last_trace_edit_id)
+        _, layout, _ = _opening_state(fig.comm)
         assert layout["title"]["text"].endswith(other)

@@ -321,12 +321,28 @@ def shown_figure(fig) -> go.Figure:
                       "layout": {**spec["layout"], "template": fig.layout.template}})
 
 
-def refresh(widget: go.FigureWidget, fig) -> dict:
-    """Copy a new figure into a displayed FigureWidget.
+#: Seconds a figure's page has to answer an update before the figure is opened anew
+#: (:func:`refresh`).  A page that heard the update answers in well under a second (0.1-1.2
+#: s from the change to the redraw at load average 15 on a shared 2-core machine); a later
+#: answer only costs a needless new opening.
+ANSWER_S = 4.0
 
-    A widget made by :func:`figure_widget` and placed in a box is opened anew in the
-    page with the whole new figure (:meth:`OpenedWhole.reopen`); any other gets the
-    changed properties in one update message (:func:`send_changes`).
+
+def refresh(widget: go.FigureWidget, fig) -> dict:
+    """Copy a new figure into a displayed FigureWidget: the changed properties in one
+    update message (:func:`send_changes`), and the whole figure anew when no page
+    answers that update.
+
+    anywidget 0.11's front end drops every message to a model whose module took more
+    than 2 s to load, for the life of that model in the page (a loaded machine; also the
+    models of a reloaded page): such a plot kept its first drawing while the numbers
+    beside it changed.  A page that draws an update answers with plotly's trace deltas;
+    when none came :data:`ANSWER_S` seconds after the update, a widget made by
+    :func:`figure_widget` and placed in a box is opened anew with the whole figure
+    (:meth:`OpenedWhole.reopen_unless_answered`).  Opening anew every time was measured
+    and dropped: each new model sends and evaluates plotly's 5 MB module again (10 MB
+    and 7-17 s per change of the site explorer against 63 kB and 0.1-1.2 s, and 35 MB of
+    the page's memory kept per change).
 
     Parameters
     ----------
@@ -338,20 +354,17 @@ def refresh(widget: go.FigureWidget, fig) -> dict:
     Returns
     -------
     dict
-        As :func:`send_changes` (a figure that did not change is not opened anew).
+        As :func:`send_changes`.
     """
-    boxes = _boxes_holding(widget) if isinstance(widget, OpenedWhole) else []
-    if not boxes or widget.comm is None:
-        return send_changes(widget, fig)
-    old = widget._wb_detach()                # no message to the model about to close
-    out = None
-    try:
-        out = send_changes(widget, fig)
-    finally:
-        if out is not None and not (out["restyled"] or out["relayout"] or out["replaced"]):
-            widget.comm = old                # nothing changed: the model shown stays
+    sent_before = getattr(widget, "_last_trace_edit_id", None)
+    out = send_changes(widget, fig)
+    if isinstance(widget, OpenedWhole) and (out["restyled"] or out["relayout"]
+                                            or out["replaced"]):
+        edit = widget._last_trace_edit_id
+        if edit == sent_before:              # nothing a page answers (shapes only): anew
+            widget.reopen()
         else:
-            widget._wb_attach_new(old, boxes)
+            widget.await_answer(edit)
     return out
 
 
@@ -494,6 +507,29 @@ class OpenedWhole(go.FigureWidget):
             return
         super().open()
 
+    def await_answer(self, edit_id: int, seconds: float | None = None) -> bool:
+        """Call :meth:`reopen_unless_answered` in `seconds` (default :data:`ANSWER_S`)
+        on the kernel's event loop; False where none runs (a script, a test: nothing
+        answers there)."""
+        import asyncio
+        try:
+            loop = asyncio.get_running_loop()
+        except RuntimeError:
+            return False
+        loop.call_later(ANSWER_S if seconds is None else seconds,
+                        self.reopen_unless_answered, edit_id)
+        return True
+
+    def reopen_unless_answered(self, edit_id: int) -> bool:
+        """Open the figure anew (:meth:`reopen`) unless a page answered the update of
+        trace edit `edit_id` (plotly's trace deltas) or a later update was sent (its
+        own wait decides).  True when opened anew."""
+        if self.comm is None or self._last_trace_edit_id != edit_id:
+            return False
+        if not self._trace_edit_in_process:  # a page drew it and said so
+            return False
+        return self.reopen()
+
     def reopen(self) -> bool:
         """Open a new comm with the whole figure (a new model in the page) and show it
         in place of the old one in every box holding this widget; the old comm is
@@ -533,6 +569,7 @@ class OpenedWhole(go.FigureWidget):
         for box in boxes:
             box.send_state("children")
         old.close()
+        self._trace_edit_in_process = False  # the new model holds every edit
 
 
 def _boxes_holding(widget) -> list:
