@@ -33,9 +33,9 @@ def _wait_titles(page, tmp_path, sel, text, key="y"):
     """Wait until the plot at `sel` draws `text` in its title `key`; its titles."""
     from playwright.sync_api import TimeoutError as Timeout
     try:
-        page.wait_for_function(
-            f"([sel, text, key]) => {{ const t = ({TITLES})(sel); return t && t[key].includes(text); }}",
-            arg=[sel, text, key], timeout=CHANGE_MS)
+        page.wait_for_function(f"([sel, text, key]) => {{ const t = ({TITLES})(sel);"
+                               " return t && t[key].includes(text); }",
+                               arg=[sel, text, key], timeout=CHANGE_MS)
     except Timeout:
         _screenshot(page, tmp_path, "stale_plot")
         dom = page.evaluate("() => [...document.querySelectorAll('.js-plotly-plot')].map(e => "

@@ -175,9 +175,9 @@ def test_in_a_kernel_the_wait_runs_on_its_event_loop(comms):
         assert w.comm is first or title == "b"
         await asyncio.sleep(0.05)
 
-    import workbench.ui.controls as controls
-    wait = controls.ANSWER_S
-    controls.ANSWER_S = 0.01
+    import workbench.ui.figure_open as figure_open
+    wait = figure_open.ANSWER_S
+    figure_open.ANSWER_S = 0.01
     try:
         asyncio.run(change_and_wait([5.0, 6.0], "b"))
         assert w.comm is not first
@@ -186,7 +186,7 @@ def test_in_a_kernel_the_wait_runs_on_its_event_loop(comms):
         asyncio.run(change_and_wait([5.0, 6.0], "b"))     # the same figure
         assert w.comm is shown
     finally:
-        controls.ANSWER_S = wait
+        figure_open.ANSWER_S = wait
 
 
 def test_every_change_of_the_site_explorer_reaches_a_new_model_unanswered(comms):
