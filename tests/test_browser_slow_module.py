@@ -14,7 +14,8 @@ from test_browser import (BUDGET, SLOW_MODULE,  # noqa: F401
                           _screenshot, lab, page, token)
 
 pytestmark = pytest.mark.browser
-#: Longest wait for a change to show in the page [ms] (a change draws in 1-5 s here).
+#: Longest wait for a change to show in the page [ms] (unanswered, a figure opens anew
+#: 4 s after the change, workbench.ui.figure_open.ANSWER_S; drawn 5-15 s after it here).
 CHANGE_MS = 45_000
 #: JavaScript: the titles of a plot (layout title and y axis, as drawn) by CSS selector.
 TITLES = """(sel) => { const el = document.querySelector(sel);
