@@ -44,7 +44,12 @@ def comms(monkeypatch):
         made.append(_RecordingComm(**kwargs))
         return made[-1]
     monkeypatch.setattr(widget_module.comm, "create_comm", create_comm)
-    return made
+    yield made
+    # close the widgets opened on these comms (else their late close at the end of the
+    # process printed "Exception ignored in Widget.__del__")
+    for w in list(widget_module._instances.values()):
+        if isinstance(w.comm, _RecordingComm):
+            w.close()
 
 
 def _opening_state(comm):
@@ -97,3 +102,113 @@ def test_a_refresh_after_opening_still_updates(comms):
     refresh(w, go.Figure(go.Bar(x=[5.0, 6.0], y=["a", "b"])))
     assert list(w.data[0].x) == [5.0, 6.0]
     assert any(m and m.get("method") == "update" for m in comms[0].sent)
+
+
+def _answer(w):
+    """What a page that drew the last update sends back: plotly's trace deltas."""
+    w._js2py_traceDeltas = {"trace_deltas": [{"uid": t.uid} for t in w.data],
+                            "trace_edit_id": w._last_trace_edit_id}
+
+
+def _boxed(title, x):
+    import ipywidgets as widgets
+    w = figure_widget(go.Figure(go.Bar(x=x, y=["a", "b"]), layout={"title": {"text": title}}))
+    w.add_class("wb-budget")
+    return w, widgets.VBox([widgets.HTML("numbers"), w])
+
+
+def test_an_unanswered_change_opens_the_figure_anew_in_its_box(comms):
+    """Defect: a later change went to the open model as an update only, which anywidget
+    drops for a model whose module took over 2 s to load (the plot kept its first
+    drawing).  When no page answers the update, the figure opens a new comm holding the
+    whole new figure, the box names the new model, and the old comm is closed."""
+    from ipywidgets.widgets.widget import _instances
+    w, box = _boxed("kg ha-1 yr-1", [1.0, 2.0])
+    first = w.comm
+    closed = []
+    first.close = lambda *a, **k: closed.append(True)
+    refresh(w, go.Figure(go.Bar(x=[5.0, 6.0], y=["a", "b"]),
+                         layout={"title": {"text": "eq ha-1 yr-1"}}))
+    assert w.comm is first                   # the update first (no event loop here)
+    assert w.reopen_unless_answered(w._last_trace_edit_id)
+    assert w.comm is not first and closed == [True]
+    data, layout, _ = _opening_state(w.comm)
+    assert list(data[0]["x"]) == [5.0, 6.0]
+    assert layout["title"] == {"text": "eq ha-1 yr-1"}
+    # a class added after the first opening is in the new model too
+    assert "wb-budget" in w.comm.opened["data"]["state"]["_dom_classes"]
+    # the box names the new model (sent after it opened), the old one is gone
+    sent = [m for m in box.comm.sent if m and m.get("method") == "update"]
+    assert sent and sent[-1]["state"]["children"][1] == f"IPY_MODEL_{w.model_id}"
+    assert first.comm_id not in _instances and _instances[w.model_id] is w
+    # the Python side is the new figure (tests and exports read it)
+    assert list(w.data[0].x) == [5.0, 6.0] and w.layout.title.text == "eq ha-1 yr-1"
+
+
+def test_an_answered_or_superseded_change_keeps_the_model(comms):
+    w, box = _boxed("a", [1.0, 2.0])
+    first = w.comm
+    refresh(w, go.Figure(go.Bar(x=[5.0, 6.0], y=["a", "b"]), layout={"title": {"text": "b"}}))
+    edit = w._last_trace_edit_id
+    _answer(w)                                # the page drew it
+    assert not w.reopen_unless_answered(edit) and w.comm is first
+    refresh(w, go.Figure(go.Bar(x=[7.0, 6.0], y=["a", "b"]), layout={"title": {"text": "c"}}))
+    refresh(w, go.Figure(go.Bar(x=[8.0, 6.0], y=["a", "b"]), layout={"title": {"text": "d"}}))
+    assert not w.reopen_unless_answered(edit + 1)        # a later update decides
+    assert w.reopen_unless_answered(edit + 2) and w.comm is not first
+    # a figure on its own (no box) cannot be put back in its place: updates only
+    alone = figure_widget(go.Figure(go.Bar(x=[1.0], y=["a"])))
+    refresh(alone, go.Figure(go.Bar(x=[2.0], y=["a"])))
+    opened = alone.comm
+    assert not alone.reopen_unless_answered(alone._last_trace_edit_id) and alone.comm is opened
+
+
+def test_in_a_kernel_the_wait_runs_on_its_event_loop(comms):
+    """Under a running event loop (the kernel's), an unanswered update opens the figure
+    anew by itself after the wait; nothing changed: no wait, no new model."""
+    import asyncio
+    w, box = _boxed("a", [1.0, 2.0])
+    first = w.comm
+
+    async def change_and_wait(x, title):
+        refresh(w, go.Figure(go.Bar(x=x, y=["a", "b"]), layout={"title": {"text": title}}))
+        assert w.comm is first or title == "b"
+        await asyncio.sleep(0.05)
+
+    import workbench.ui.figure_open as figure_open
+    wait = figure_open.ANSWER_S
+    figure_open.ANSWER_S = 0.01
+    try:
+        asyncio.run(change_and_wait([5.0, 6.0], "b"))
+        assert w.comm is not first
+        assert _opening_state(w.comm)[1]["title"] == {"text": "b"}
+        shown = w.comm
+        asyncio.run(change_and_wait([5.0, 6.0], "b"))     # the same figure
+        assert w.comm is shown
+    finally:
+        figure_open.ANSWER_S = wait
+
+
+def test_every_change_of_the_site_explorer_reaches_a_new_model_unanswered(comms):
+    """The site explorer's unit and receptor with no page answering: the budget and the
+    open tab each open a new comm holding the new axis title and receptor."""
+    from workbench.ui.apps import SiteExplorer
+    from workbench.ui.session import Session
+    from ui.demo_subset import write_demo_subset
+    import tempfile
+    from pathlib import Path
+    with tempfile.TemporaryDirectory() as tmp:
+        scenario = write_demo_subset(Path(tmp) / "one", ("ridge",), 2021, 2021)
+        app = SiteExplorer(Session.open(scenario), site="ridge")
+        app.unit_w.value = "eq/ha/yr"
+        for key in ("budget", "monthly fluxes"):
+            fig = app.figs[key]
+            assert fig.reopen_unless_answered(fig._last_trace_edit_id), key
+            _, layout, _ = _opening_state(fig.comm)
+            assert "eq ha-1" in layout["yaxis"]["title"]["text"], key
+        other = app.receptor_w.options[1]
+        app.receptor_w.value = other
+        fig = app.figs["budget"]
+        assert fig.reopen_unless_answered(fig._last_trace_edit_id)
+        _, layout, _ = _opening_state(fig.comm)
+        assert layout["title"]["text"].endswith(other)

@@ -14,6 +14,7 @@ from plotly.basedatatypes import Undefined
 from ..budget import OMISSIONS
 from ..report import CAUTION
 from .assumptions import Assumption
+from .figure_open import OpenedWhole
 
 #: Width of a control's description [CSS].
 DESCRIPTION_WIDTH = "230px"
@@ -322,6 +323,46 @@ def shown_figure(fig) -> go.Figure:
 
 
 def refresh(widget: go.FigureWidget, fig) -> dict:
+    """Copy a new figure into a displayed FigureWidget: the changed properties in one
+    update message (:func:`send_changes`), and the whole figure anew when no page
+    answers that update.
+
+    anywidget 0.11's front end drops every message to a model whose module took more
+    than 2 s to load, for the life of that model in the page (a loaded machine; also the
+    models of a reloaded page): such a plot kept its first drawing while the numbers
+    beside it changed.  A page that draws an update answers with plotly's trace deltas;
+    when none came :data:`~workbench.ui.figure_open.ANSWER_S` seconds after it, a
+    widget made by :func:`figure_widget` and placed in a box is opened anew with the
+    whole figure (:meth:`OpenedWhole.reopen_unless_answered`).  Opening anew every time was measured
+    and dropped: each new model sends and evaluates plotly's 5 MB module again (10 MB
+    and 7-17 s per change of the site explorer against 63 kB and 0.1-1.2 s, and 35 MB of
+    the page's memory kept per change).
+
+    Parameters
+    ----------
+    widget : plotly.graph_objects.FigureWidget
+        Made by :func:`figure_widget` (it remembers what it shows).
+    fig : plotly Figure or dict
+        The new figure, or its plain JSON spec.
+
+    Returns
+    -------
+    dict
+        As :func:`send_changes`.
+    """
+    sent_before = getattr(widget, "_last_trace_edit_id", None)
+    out = send_changes(widget, fig)
+    if isinstance(widget, OpenedWhole) and (out["restyled"] or out["relayout"]
+                                            or out["replaced"]):
+        edit = widget._last_trace_edit_id
+        if edit == sent_before:              # nothing a page answers (shapes only): anew
+            widget.reopen()
+        else:
+            widget.await_answer(edit)
+    return out
+
+
+def send_changes(widget: go.FigureWidget, fig) -> dict:
     """Copy a new figure into a displayed FigureWidget in one update message.
 
     Parameters
@@ -432,33 +473,6 @@ def keep_state(widget: go.FigureWidget) -> None:
             layout[k] = deepcopy(widget._layout_obj._props[k])
     widget._widget_layout = layout
     widget._widget_data = data
-
-
-class OpenedWhole(go.FigureWidget):
-    """A FigureWidget whose comm opens with its figure in the opening state.
-
-    plotly 7.1's FigureWidget opens its comm (ipywidgets opens it at the end of the
-    widget's own constructor) with an empty ``_widget_data`` and ``_widget_layout`` and
-    sends the figure a moment later as an update.  anywidget 0.11's front end holds
-    every message to a model until the model's module is loaded, and gives that 2 s;
-    plotly's module is 5 MB per figure, and on a loaded machine (the full demo network,
-    three figures) it took longer: the held updates were then dropped without a console
-    error, and the figures drew as empty default axes (x -1..6, y -1..4, no title).
-    Here the comm opens after plotly has set the figure, so the model starts with it.
-    """
-
-    def __init__(self, *args, **kwargs):
-        self._wb_opening = True
-        try:
-            super().__init__(*args, **kwargs)
-        finally:
-            self._wb_opening = False
-        self.open()
-
-    def open(self):
-        if getattr(self, "_wb_opening", False):
-            return
-        super().open()
 
 
 def figure_widget(fig) -> go.FigureWidget:

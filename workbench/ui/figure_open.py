@@ -1,0 +1,111 @@
+"""Figure widgets whose comm opens with the whole figure, and opened anew when a page
+did not hear an update (used by :func:`workbench.ui.controls.figure_widget` and
+:func:`workbench.ui.controls.refresh`)."""
+from __future__ import annotations
+
+import ipywidgets as widgets
+import plotly.graph_objects as go
+
+#: Seconds a figure's page has to answer an update before the figure is opened anew
+#: (:func:`workbench.ui.controls.refresh`).  A page that heard the update answers in
+#: about a second (0.1-1.2 s from the change to the redraw at load average 15 on a
+#: shared 2-core machine); a later answer only costs a needless new opening.
+ANSWER_S = 4.0
+
+
+class OpenedWhole(go.FigureWidget):
+    """A FigureWidget whose comm opens with its figure in the opening state.
+
+    plotly 7.1's FigureWidget opens its comm (ipywidgets opens it at the end of the
+    widget's own constructor) with an empty ``_widget_data`` and ``_widget_layout`` and
+    sends the figure a moment later as an update.  anywidget 0.11's front end holds
+    every message to a model until the model's module is loaded, and gives that 2 s;
+    plotly's module is 5 MB per figure, and on a loaded machine (the full demo network,
+    three figures) it took longer: the held updates were then dropped without a console
+    error, and the figures drew as empty default axes (x -1..6, y -1..4, no title).
+    Here the comm opens after plotly has set the figure, so the model starts with it.
+    """
+
+    def __init__(self, *args, **kwargs):
+        self._wb_opening = True
+        try:
+            super().__init__(*args, **kwargs)
+        finally:
+            self._wb_opening = False
+        self.open()
+
+    def open(self):
+        if getattr(self, "_wb_opening", False):
+            return
+        super().open()
+
+    def await_answer(self, edit_id: int, seconds: float | None = None) -> bool:
+        """Call :meth:`reopen_unless_answered` in `seconds` (default :data:`ANSWER_S`)
+        on the kernel's event loop; False where none runs (a script, a test: nothing
+        answers there)."""
+        import asyncio
+        try:
+            loop = asyncio.get_running_loop()
+        except RuntimeError:
+            return False
+        loop.call_later(ANSWER_S if seconds is None else seconds,
+                        self.reopen_unless_answered, edit_id)
+        return True
+
+    def reopen_unless_answered(self, edit_id: int) -> bool:
+        """Open the figure anew (:meth:`reopen`) unless a page answered the update of
+        trace edit `edit_id` (plotly's trace deltas) or a later update was sent (its
+        own wait decides).  True when opened anew."""
+        if self.comm is None or self._last_trace_edit_id != edit_id:
+            return False
+        if not self._trace_edit_in_process:  # a page drew it and said so
+            return False
+        return self.reopen()
+
+    def reopen(self) -> bool:
+        """Open a new comm with the whole figure (a new model in the page) and show it
+        in place of the old one in every box holding this widget; the old comm is
+        closed (its model and views leave the page).
+
+        Why: anywidget 0.11's front end drops every message to a model whose module
+        took more than 2 s to load, for the life of that model in the page (a loaded
+        machine; also the models a reloaded page makes).  An update sent to such a
+        model never drew: the plot kept its first drawing while the numbers beside it
+        changed.  A new model starts from its opening state, which holds the figure.
+
+        Returns
+        -------
+        bool
+            False (nothing done) when no box holds the widget or its comm is closed: a
+            widget shown on its own cannot be put back in its place.
+        """
+        boxes = _boxes_holding(self)
+        if not boxes or self.comm is None:
+            return False
+        self._wb_attach_new(self._wb_detach(), boxes)
+        return True
+
+    def _wb_detach(self):
+        """Take the comm off the widget (updates of the Python side then send nothing)."""
+        from ipywidgets.widgets.widget import _instances
+        old = self.comm
+        _instances.pop(old.comm_id, None)
+        self.comm = None
+        self._model_id = None               # else open() reuses the old comm id
+        return old
+
+    def _wb_attach_new(self, old, boxes):
+        """Open a new comm with the current state, point `boxes` at it, close `old`
+        (in this order: the page has the new model before a box names it)."""
+        self.open()
+        for box in boxes:
+            box.send_state("children")
+        old.close()
+        self._trace_edit_in_process = False  # the new model holds every edit
+
+
+def _boxes_holding(widget) -> list:
+    """The open boxes (VBox, HBox, Tab, Accordion...) whose children hold `widget`."""
+    from ipywidgets.widgets.widget import _instances    # the open widgets, by model id
+    return [w for w in list(_instances.values())
+            if isinstance(w, widgets.Box) and any(c is widget for c in w.children)]
