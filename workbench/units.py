@@ -66,28 +66,36 @@ MM_PER_M = unit_factor("m", "mm")
 #: R, and ``fahrenheit``).  UDUNITS-2 compares names case-blind (``Celsius``, ``DEGC``)
 #: and forms the plural of a name without one by adding ``s`` (``kelvins``); pint knows
 #: only some of these (``degC``, ``degree_Celsius``, ``celsius``), so the others were
-#: refused as unknown.  Lower case -> the pint spelling; tests/test_units_udunits.py holds
-#: the table to cf_units (which reads that database).  Symbols (``°C``, ``℃``, ``°F``,
+#: refused as unknown.  Lower case -> the pint spelling;
+#: tests/io/test_cf_temperature_units.py holds the table to cfunits (which reads that
+#: database).  Symbols (``°C``, ``℃``, ``°F``,
 #: ``℉``, ``°K``, ``°R``) are compared as written.
-_UDUNITS_TEMPERATURE = {}
-for _pint_name, _names in (
-        ("degC", ("degree_celsius", "celsius", "degree_c", "degreec", "deg_c", "degc")),
-        ("K", ("kelvin", "degree_kelvin", "degree_k", "degreek", "deg_k", "degk")),
-        ("degF", ("fahrenheit", "degree_fahrenheit", "degreef", "degree_f", "degf", "deg_f")),
-        ("degR", ("degree_rankine", "degreer", "degree_r", "degr", "deg_r"))):
-    for _n in _names:
-        _UDUNITS_TEMPERATURE[_n] = _pint_name
-        # plurals as the database writes them: degree_x -> degrees_x, deg_x -> degs_x,
-        # degX -> degsX; a name without a given plural takes the English one (kelvins,
-        # celsiuses, fahrenheits)
-        if _n.startswith("degree"):
-            _UDUNITS_TEMPERATURE["degrees" + _n[6:]] = _pint_name
-        elif _n.startswith("deg"):
-            _UDUNITS_TEMPERATURE["degs" + _n[3:]] = _pint_name
-        else:
-            _UDUNITS_TEMPERATURE[_n + ("es" if _n.endswith("s") else "s")] = _pint_name
-_UDUNITS_TEMPERATURE.update({"°C": "degC", "\u2103": "degC", "°K": "K", "°F": "degF",
-                             "\u2109": "degF", "°R": "degR"})
+def _udunits_temperature_table() -> dict:
+    """UDUNITS-2 temperature name or symbol -> pint spelling (a constant table)."""
+    table = {}
+    for pint_name, names in (
+            ("degC", ("degree_celsius", "celsius", "degree_c", "degreec", "deg_c", "degc")),
+            ("K", ("kelvin", "degree_kelvin", "degree_k", "degreek", "deg_k", "degk")),
+            ("degF", ("fahrenheit", "degree_fahrenheit", "degreef", "degree_f", "degf",
+                      "deg_f")),
+            ("degR", ("degree_rankine", "degreer", "degree_r", "degr", "deg_r"))):
+        for n in names:
+            table[n] = pint_name
+            # plurals as the database writes them: degree_x -> degrees_x, deg_x -> degs_x,
+            # degX -> degsX; a name without a given plural takes the English one (kelvins,
+            # celsiuses, fahrenheits)
+            if n.startswith("degree"):
+                table["degrees" + n[6:]] = pint_name
+            elif n.startswith("deg"):
+                table["degs" + n[3:]] = pint_name
+            else:
+                table[n + ("es" if n.endswith("s") else "s")] = pint_name
+    table.update({"°C": "degC", "\u2103": "degC", "°K": "K", "°F": "degF",
+                  "\u2109": "degF", "°R": "degR"})
+    return table
+
+
+_UDUNITS_TEMPERATURE = _udunits_temperature_table()
 
 
 def udunits_temperature(text: str) -> str | None:
