@@ -266,7 +266,7 @@ def cmd_run(args) -> int:
         print(f"warning: {changed_note(path, None)}", file=sys.stderr)
     for line in status_lines(result.table, study.inputs):
         print(line)
-    for line in run_span_notes(args.scenario, result.table, args.resolution):
+    for line in run_span_notes(args.scenario, result.table, args.resolution, study):
         print(line)
     for line in site_status_lines(result.table):
         print(line)
@@ -301,17 +301,22 @@ def status_lines(table, inputs) -> list[str]:
     return lines
 
 
-def run_span_notes(scenario, table, resolution=None) -> list[str]:
+def run_span_notes(scenario, table, resolution=None, study=None) -> list[str]:
     """:func:`workbench.preflight.span_notes` for a finished run: its periods from
-    `table` (budget rows), ``[period]`` start and end from the scenario file."""
+    `table` (budget rows), ``[period]`` start and end from the scenario file; with
+    `study`, also the days of the record a default start or end left out
+    (:meth:`workbench.pipeline.Study.span_notes`)."""
     from .preflight import span_notes
     from .scenario import load_scenario
     t = table[table["period"].astype(str) != "span"]
     if t.empty or "period_start" not in t:
         return []
     p = load_scenario(scenario).data["period"]
+    left = [] if study is None else [
+        "note: " + n.removeprefix("period: ") for n in study.span_notes(p.get("start"),
+                                                                       p.get("end"))]
     return span_notes(p.get("start"), p.get("end"), t["period_start"].min(),
-                      t["period_end"].max(), resolution or p["resolution"])
+                      t["period_end"].max(), resolution or p["resolution"]) + left
 
 
 def site_status_lines(table, min_sites=None) -> list[str]:
