@@ -36,12 +36,12 @@ import pandas as pd
 import xarray as xr
 
 from . import stages as _stages
-from .periods import default_span, excluded_record_notes
 from .budget import COMPONENTS, BudgetOptions
 from .drycomponents import dry_components, dry_rows
 from .graph import Graph, Node, content_digest, input_node, token
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
+from .periods import default_span, excluded_record_notes
 from .surfacehistory import collector_history, earlier_classes, land_use_history, mast_history
 from .tables import budget_table, span_table
 
@@ -93,7 +93,6 @@ class Result:
         if self.graph is None or key is None:
             return _stages.derived_quantities(None, self.budget)
         return self.graph.run("derived", deps={"budget": Node(key, self.budget)}).value
-
 
 
 class Study:
