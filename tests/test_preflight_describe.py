@@ -15,7 +15,8 @@ def _describe(monkeypatch, starts, resolution, years):
     starts = pd.to_datetime(starts)
     periods = pd.DataFrame({"start": starts[:-1], "end": starts[1:]})
     sc = SimpleNamespace(data={"period": {"resolution": resolution}}, fixed_velocity={})
-    prep = Prepared(scenario=sc, study=SimpleNamespace(inputs=None), periods=periods,
+    study = SimpleNamespace(inputs=None, span_notes=lambda *a: [])
+    prep = Prepared(scenario=sc, study=study, periods=periods,
                     years=list(range(years)), receptors=["moorland"])
     return prep.describe().splitlines()[0]
 

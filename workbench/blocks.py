@@ -409,6 +409,8 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
     else:
         whole = Study(study_or_inputs, site_overrides)
     inputs = whole.inputs
+    # the days of the record a default start or end leaves out, said as a run note
+    span_notes = whole.span_notes(start, end)
     if start is None or end is None:
         s0, e0 = whole.span()
         start = s0 if start is None else start
@@ -483,7 +485,9 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
             nxt = submit()
             if nxt is not None:
                 queue.add(nxt)
-    return reduce_blocks(done, receptors, positions, list(inputs.catalogue.ids))
+    result = reduce_blocks(done, receptors, positions, list(inputs.catalogue.ids))
+    result.notes = list(result.notes) + span_notes
+    return result
 
 
 #: Blocks of sites run at once on threads of this process, at most [-] (each block's

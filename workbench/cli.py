@@ -162,7 +162,7 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
     -------
     (written, result, study)
     """
-    from tqdm.auto import tqdm
+    from .cliprogress import StageProgress
     from .preflight import prepare
     from .scenario import load_scenario
     from .writers import RunFolder, write_run
@@ -173,22 +173,15 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
         # are read; closed after the blocks, or after an error here
         cluster = _early_cluster(sc, workers, scheduler)
         steps = ["sites", "precipitation", "air", "met", "budget", "outputs"]
-        # no time left is shown: the steps take unequal times (the blocks most of a
-        # network's run), so tqdm's estimate read "2 s left" for a minute
-        bar = tqdm(total=len(steps), desc="workbench", disable=quiet, delay=1.0,
-                   file=sys.stderr,
-                   bar_format="{l_bar}{bar}| {n_fmt}/{total_fmt} [{elapsed}{postfix}]")
-
-        def step(text):
-            bar.set_postfix_str(text)
-            bar.update(1)
-
+        # a bar on a terminal; one line per stage on a log file or a pipe (cliprogress)
+        bar = StageProgress(len(steps), quiet)
         try:
-            prep = prepare(sc, progress=step)
+            prep = prepare(sc, progress=bar.step)
             study, o = prep.study, sc.options
             p = sc.data["period"]
             args = (study, o["wet"], o["dry"], o["budget"], sc.fixed_velocity,
                     resolution or p["resolution"], p["start"], p["end"])
+            bar.step("computing the budget")
             from .blocks import wants_blocks
             unc = o.get("uncertainty")
             if wants_blocks(len(study.inputs.catalogue.ids), workers, scheduler, block_sites,
@@ -197,16 +190,16 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
                 # the same site-years rule for the blocks of this process and of workers
                 cap = default_block_sites(len(prep.years))
                 result = run_network(*args, sc=sc, workers=workers, scheduler=scheduler,
-                                     block_sites=block_sites, progress=bar.set_postfix_str,
+                                     block_sites=block_sites, progress=bar.detail,
                                      cluster=cluster, max_block_sites=cap)
             else:
                 from .comparison import run as run_compared
                 result = run_compared(*args)
-            step("writing")
+            bar.step("writing")
             written = write_run(result, study, sc, out,
-                                progress=output_progress(result, bar.set_postfix_str),
+                                progress=output_progress(result, bar.detail),
                                 folder=folder)
-            bar.update(bar.total - bar.n)
+            bar.finish()
         finally:
             bar.close()
             _end_line()
@@ -273,7 +266,7 @@ def cmd_run(args) -> int:
         print(f"warning: {changed_note(path, None)}", file=sys.stderr)
     for line in status_lines(result.table, study.inputs):
         print(line)
-    for line in run_span_notes(args.scenario, result.table, args.resolution):
+    for line in run_span_notes(args.scenario, result.table, args.resolution, study):
         print(line)
     for line in site_status_lines(result.table):
         print(line)
@@ -308,17 +301,22 @@ def status_lines(table, inputs) -> list[str]:
     return lines
 
 
-def run_span_notes(scenario, table, resolution=None) -> list[str]:
+def run_span_notes(scenario, table, resolution=None, study=None) -> list[str]:
     """:func:`workbench.preflight.span_notes` for a finished run: its periods from
-    `table` (budget rows), ``[period]`` start and end from the scenario file."""
+    `table` (budget rows), ``[period]`` start and end from the scenario file; with
+    `study`, also the days of the record a default start or end left out
+    (:meth:`workbench.pipeline.Study.span_notes`)."""
     from .preflight import span_notes
     from .scenario import load_scenario
     t = table[table["period"].astype(str) != "span"]
     if t.empty or "period_start" not in t:
         return []
     p = load_scenario(scenario).data["period"]
+    left = [] if study is None else [
+        "note: " + n.removeprefix("period: ") for n in study.span_notes(p.get("start"),
+                                                                       p.get("end"))]
     return span_notes(p.get("start"), p.get("end"), t["period_start"].min(),
-                      t["period_end"].max(), resolution or p["resolution"])
+                      t["period_end"].max(), resolution or p["resolution"]) + left
 
 
 def site_status_lines(table, min_sites=None) -> list[str]:

@@ -378,3 +378,92 @@ def season_of(times) -> np.ndarray:
     ['DJF', 'JJA']
     """
     return MONTH_SEASON[pd.DatetimeIndex(_to_datetime64(times)).month.values]
+
+
+#: Days of a calendar year that the record may reach into at its start or end and the
+#: default reporting span still leave that year out [d]: the tail of the last weekly
+#: samples (or of an hourly record stopped with them) a few days into a new year is no
+#: year of the record.  A month, the longest usual sampling period (our choice; the
+#: slack of :data:`workbench.preflight.COVERAGE_SLACK_DAYS`).
+EDGE_YEAR_DAYS = 31
+
+
+def _year_start(t, shift=0):
+    """1 January of the year of `t` (plus `shift` years), as datetime64[ns]."""
+    y = np.datetime64(t, "Y").astype(int) + 1970 + int(shift)
+    return np.datetime64(f"{y:04d}-01-01", "ns")
+
+
+def default_span(record_start, record_end):
+    """The default reporting span ``[start, end)`` of a record: its calendar years,
+    without a first or last year that the record reaches into by at most
+    :data:`EDGE_YEAR_DAYS` days.
+
+    The last weekly sample, 2021-12-28 to 2022-01-04, made 2022 a period of its own
+    (four days of data, the rest of the year without any): a year that reads as a
+    year of the record in every table.  Here the default end is then 2022-01-01; the
+    days cut off are said by :func:`excluded_record_notes` (the run notes).  A year
+    the record reaches into by more (a site closed in June) stays, a partial year that
+    completeness flags.  A record shorter than that on both sides of a New Year keeps
+    its whole span.
+
+    Parameters
+    ----------
+    record_start, record_end : datetime64
+        The earliest start and latest end of the samples and air periods (UTC; end
+        exclusive).
+
+    Returns
+    -------
+    (numpy.datetime64, numpy.datetime64)
+        Start and exclusive end [ns, UTC].
+
+    Examples
+    --------
+    >>> d = lambda t: np.datetime64(t, "ns")
+    >>> s, e = default_span(d("2021-01-05"), d("2022-01-04T10:00"))
+    >>> str(s)[:10], str(e)[:10]
+    ('2021-01-05', '2022-01-01')
+    """
+    s0, e0 = np.datetime64(record_start, "ns"), np.datetime64(record_end, "ns")
+    edge = np.timedelta64(EDGE_YEAR_DAYS, "D")
+    start, end = s0, e0
+    first_next = _year_start(s0, 1)              # 1 January after the record's start
+    if first_next - s0 <= edge:
+        start = first_next
+    last_first = _year_start(e0 - np.timedelta64(1, "ns"))   # 1 January of its last year
+    if e0 - last_first <= edge:
+        end = last_first
+    if not end > start:
+        return s0, e0
+    return start, end
+
+
+def excluded_record_notes(record_start, record_end, use_start=True, use_end=True) -> list:
+    """The notes of the days of the record that :func:`default_span` leaves out (the
+    head of the first samples before the first year, the tail of the last samples
+    after the last year), each with its reason and how to keep them.
+
+    `use_start`, `use_end`: whether the default start or end is in force (``[period]``
+    gives neither).
+    """
+    s0, e0 = np.datetime64(record_start, "ns"), np.datetime64(record_end, "ns")
+    start, end = default_span(s0, e0)
+    day = lambda t: str(np.datetime64(t, "m")).replace("T00:00", "")   # noqa: E731
+    out = []
+    if use_end and end < e0:
+        days = (e0 - end) / np.timedelta64(1, "D")
+        out.append(f"period: the default [period] end is {day(end)}: the record reaches "
+                   f"{days:.2g} days into {day(end)[:4]} (to {day(e0)} UTC, the tail of "
+                   f"its last samples), and a year of so few days would read as a year of "
+                   f"the record; those days are left out of every table (give [period] "
+                   f"end = \"{day(_year_start(e0 - np.timedelta64(1, 'ns'), 1))}\" to keep "
+                   "them, as a period of their own)")
+    if use_start and start > s0:
+        days = (start - s0) / np.timedelta64(1, "D")
+        out.append(f"period: the default [period] start is {day(start)}: the record "
+                   f"begins {days:.2g} days before it (from {day(s0)} UTC, the head of "
+                   f"its first samples), and a year of so few days would read as a year of "
+                   f"the record; those days are left out of every table (give [period] "
+                   f"start = \"{day(_year_start(s0))}\" to keep them, as a period of their own)")
+    return out

@@ -41,6 +41,7 @@ from .drycomponents import dry_components, dry_rows
 from .graph import Graph, Node, content_digest, input_node, token
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
+from .periods import default_span, excluded_record_notes
 from .surfacehistory import collector_history, earlier_classes, land_use_history, mast_history
 from .tables import budget_table, span_table
 
@@ -177,9 +178,10 @@ class Study:
                                   value=value, expected=expected)
             check_site({**base, **table}, err, [], f"what-if [sites.{sid}]")
 
-    def span(self):
-        """(start, end) of the chemistry: the earliest sample or air-period start and
-        the latest end (the met record when there is no chemistry)."""
+    def record_span(self):
+        """(start, end) of the record: the earliest sample or air-period start and the
+        latest end (the met record when there is no chemistry); (None, None) without
+        any record."""
         starts, ends = [], []
         for ds in (self.inputs.precipitation, self.inputs.air):
             if ds is not None and ds["start"].size:      # a block of sites without any
@@ -192,6 +194,21 @@ class Study:
         if not starts:                # no record at all: the run's start and end decide
             return None, None
         return min(starts), max(ends)
+
+    def span(self):
+        """(start, end) of the default reporting span: the calendar years of the record,
+        without a year it reaches into by a few days only
+        (:func:`workbench.periods.default_span`); (None, None) without any record."""
+        s0, e0 = self.record_span()
+        return (None, None) if s0 is None else default_span(s0, e0)
+
+    def span_notes(self, start=None, end=None) -> list:
+        """The run notes of the record's days that the default span leaves out (used
+        where `start` or `end` is None): ``[]`` when it holds the whole record."""
+        s0, e0 = self.record_span()
+        if s0 is None or (start is not None and end is not None):
+            return []
+        return excluded_record_notes(s0, e0, use_start=start is None, use_end=end is None)
 
     # ---------------------------------------------------------------- graph nodes
     def _input(self, name, value, *extra) -> Node:
@@ -553,7 +570,9 @@ class Study:
                       options={"wet": wet_options, "dry": dry_options, "budget": budget_options,
                                "fixed_velocity": fixed_velocity, "resolution": resolution,
                                "receptors": receptors},
-                      notes=[] if rows.value is None else rows.value["notes"],
+                      # a new list: the stage's own stays as cached
+                      notes=([] if rows.value is None else list(rows.value["notes"]))
+                      + self.span_notes(start, end),
                       keys={"budget": res_ds.key, "years": year_ds.key, "screened": screened.key,
                             "wet": wet_r.key, "velocities": vel.key},
                       graph=self.graph)

@@ -48,6 +48,8 @@ class Prepared:
                                                               fixed.items()))
         lines.extend(span_notes(sc.data["period"].get("start"), sc.data["period"].get("end"),
                                 p["start"].iloc[0], p["end"].iloc[-1], res))
+        lines.extend("note: " + n.removeprefix("period: ") for n in self.study.span_notes(
+            sc.data["period"].get("start"), sc.data["period"].get("end")))
         cover = coverage_notes(self.study.inputs, p["start"].iloc[0], p["end"].iloc[-1])
         lines.extend(cover)
         if cover and all(c.startswith("warning") for c in cover) and len(cover) == len(

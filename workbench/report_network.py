@@ -216,7 +216,10 @@ def network_figure(span: pd.DataFrame):
                         subplot_titles=("S total [kg S/ha/yr]", "N total [kg N/ha/yr]"))
     for col, el in enumerate(("S", "N"), start=1):
         e = span[span["element"] == el].set_index("site").reindex(sites)
-        full = e["status"].astype(str).isin(FULL_SET)
+        # the ranking's groups (workbench.ranking): a flagged total lacking a component
+        # is drawn with the partial ones, as it is ranked (it was drawn as full)
+        lacks = e["missing_components"].fillna("").astype(str).str.strip() != ""
+        full = e["status"].astype(str).isin(FULL_SET) & ~lacks
         for mask, name, colour, shape in ((full, "every component", OKABE_ITO["blue"], ""),
                                           (~full, "partial (a component without data)",
                                            OKABE_ITO["orange"], "/")):

@@ -188,7 +188,7 @@ def test_partial_totals_are_never_ranked():
     assert not any("b" in y for y in fig.data[0].y)
     assert list(fig.data[1].y) == ["1 · b (without NO2)"]
     tot = figures.network_totals(table)
-    b_open = [t for t in tot.data if t.name.startswith("b (partial") and t.xaxis == "x2"][0]
+    b_open = [t for t in tot.data if t.name == "b " + figures.OPEN_NAME and t.xaxis == "x2"][0]
     assert b_open.marker.symbol == "circle-open" and b_open.y[0] == 30.0
 
 

@@ -27,7 +27,8 @@ def test_thirty_sites_each_look_different_and_the_legend_lists_sites_once():
     assert len(lines) == 30 and len(looks) == 30
     shown = [t.name for t in fig.data if t.showlegend is not False]
     assert shown == [f"s{i:02d}" for i in range(30)]
-    assert any("open marker: partial or flagged" in a.text for a in fig.layout.annotations)
+    # the markers' note states the ranking's rule (tests/ui/test_network_flagged_rule.py)
+    assert any(a.text == figures.MARKER_NOTE for a in fig.layout.annotations)
     # the legend of 30 names fits the figure
     assert fig.layout.height >= figures.legend_height(31)
     assert fig.layout.legend.tracegroupgap == 0       # each site is a legend group
@@ -37,8 +38,7 @@ def test_few_sites_keep_their_open_marker_entries():
     fig = figures.network_totals(_table(3))
     # s01 has no partial total in _table(3): no open-marker entry of its own
     assert [t.name for t in fig.data if t.showlegend is not False] == [
-        "s00", "s00 (partial or flagged: not ranked)", "s01", "s02",
-        "s02 (partial or flagged: not ranked)"]
+        "s00", "s00 " + figures.OPEN_NAME, "s01", "s02", "s02 " + figures.OPEN_NAME]
     assert fig.layout.height == figures.HEIGHT
 
 
@@ -93,4 +93,4 @@ def test_a_site_without_open_markers_has_no_open_marker_entry():
     t["rankable"] = ~((t["site"] == "s01") & (t["element"] == "N"))
     fig = figures.network_totals(t)
     shown = [tr.name for tr in fig.data if tr.showlegend is not False]
-    assert shown == ["s00", "s01", "s01 (partial or flagged: not ranked)"]
+    assert shown == ["s00", "s01", "s01 " + figures.OPEN_NAME]

@@ -46,10 +46,11 @@ def test_a_flagged_year_keeps_the_site_in_the_full_ranking():
     fig = figures.network_ranking_bars(r, "N")
     assert [t.name for t in fig.data] == ["every component", "partial: without NO2",
                                           "partial: without NO2, NH3"]
-    assert list(fig.data[0].y) == ["1 · fell", "2 · tarn"]
+    # the flagged total is ranked and marked (tests/ui/test_network_flagged_rule.py)
+    assert list(fig.data[0].y) == ["1 · fell (flagged)", "2 · tarn"]
     assert list(fig.data[1].y) == ["1 · mere (without NO2)", "2 · beck (without NO2)"]
     assert fig.data[0].marker.color != fig.data[1].marker.color
-    assert list(fig.layout.yaxis.categoryarray)[:3] == ["1 · fell", "2 · tarn",
+    assert list(fig.layout.yaxis.categoryarray)[:3] == ["1 · fell (flagged)", "2 · tarn",
                                                         "1 · mere (without NO2)"]
     assert fig.layout.xaxis.visible is not False
     assert not any("nothing to rank" in a.text for a in fig.layout.annotations)

@@ -526,7 +526,9 @@ def _write_sensitivity(sc, out, quiet):
             "fixed_velocity": sc.fixed_velocity}
 
     def progress(items):
-        return tqdm(list(items), desc="engine runs", disable=quiet, file=sys.stderr, delay=1.0)
+        # disable=None: a bar on a terminal only, none in a log file (carriage returns)
+        return tqdm(list(items), desc="engine runs", disable=True if quiet else None,
+                    file=sys.stderr, delay=1.0)
     frame = sobol(study, base, opt, kw, progress)
     torn = tornado(study, base, opt, kw, progress)
     written = {"sensitivity.csv": atomic_write(out / "sensitivity.csv", lambda t: frame.to_csv(

@@ -236,8 +236,11 @@ ANALYSIS_HEADINGS = {"S_trend": "S trend", "N_trend": "N trend",
 class NetworkOverview(SavedText, widgets.VBox):
     """All sites side by side: annual totals over the years and a ranking.
 
-    A total built on a partial set of species (or failing completeness) is drawn with
-    open markers and never ranked beside complete ones.
+    One rule for both (:mod:`workbench.ranking`): a site is ranked on its whole-span
+    total, the mean of the years drawn with filled markers (a flagged year, a diamond,
+    used with a caution); the years drawn with open markers (partial, or failing
+    completeness) are left out of it.  A partial whole-span total is ranked apart, never
+    beside complete ones; a flagged one is ranked and marked "(flagged)".
     """
 
     title = "Network overview"
@@ -320,8 +323,10 @@ class NetworkOverview(SavedText, widgets.VBox):
         """Annual totals of every site on its own surface (see :func:`network_table`)."""
         unit = unit or self.unit_w.value
         cat = self.session.study.inputs.catalogue
-        return pd.concat([network_table(r.years, cat, unit) for r in self.results.values()],
-                         ignore_index=True)
+        # the years each site's whole-span total uses: the markers follow the ranking
+        span = network_span(self.results.values(), cat)
+        return pd.concat([network_table(r.years, cat, unit, span)
+                          for r in self.results.values()], ignore_index=True)
 
     def totals(self, unit=None) -> pd.DataFrame:
         """The annual totals as a table to read: one row per site and year, for S and N

@@ -406,9 +406,12 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
 def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
     """Annual S and N totals of every site over the years.
 
-    Totals that are not rankable (a partial set of species, or failing completeness)
-    are drawn with open markers and named so in the hover text; the lines join only
-    rankable years.
+    Filled markers are the years that enter the site's whole-span total, the one the
+    ranking ranks (``rankable``: :func:`workbench.ui.summaries.network_table` with the
+    span rows), a diamond where that year is ``flagged`` (used with a caution); the
+    other years (partial, or failing completeness) are drawn with open markers, named
+    "not in the whole-span total" (a flagged year read "not ranked" while its site was
+    ranked first on it).  The lines join only the years used.
 
     Parameters
     ----------
@@ -438,16 +441,20 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
             dash = SITE_DASHES[(i // len(SITE_CYCLE)) % len(SITE_DASHES)]
             for ok in (True, False):
                 v = np.where(g["rankable"] == ok, g["value"], np.nan)
-                why = [f"{s}" + (f", no data for {m}" if m else "") for s, m in
-                       zip(g["status"], g["missing"])]
+                used = ("in the whole-span total" if ok else
+                        "not in the whole-span total (partial or failing completeness)")
+                why = [f"{s}" + (f", no data for {m}" if m else "") + f": {used}"
+                       for s, m in zip(g["status"], g["missing"])]
+                symbol = (np.where(g["status"].astype(str) == "flagged", "diamond",
+                                   "circle").tolist() if ok else "circle-open")
                 fig.add_trace(go.Scatter(
                     x=g["period"], y=[x if np.isfinite(x) else None for x in v],
                     mode="lines+markers" if ok else "markers",
-                    name=f"{site}" if ok else f"{site} (partial or flagged: not ranked)",
+                    name=f"{site}" if ok else f"{site} {OPEN_NAME}",
                     legendgroup=site,
                     showlegend=col == 1 and (ok or (not many and site in unranked)),
                     line=dict(color=colour, dash=dash), connectgaps=False,
-                    marker=dict(color=colour, size=9, symbol="circle" if ok else "circle-open"),
+                    marker=dict(color=colour, size=9, symbol=symbol),
                     customdata=why,
                     hovertemplate=(f"{site} {el} total %{{x}}: %{{y:.3g}} "
                                    f"{axis_text(unit, element=el)}<br>%{{customdata}}"
@@ -461,13 +468,20 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
         # one legend group per site: plotly's 10 px gap between groups made 30 entries
         # half as tall again as the room for them (a scroll bar after 22 sites)
         fig.update_layout(legend_tracegroupgap=0)
-        fig.add_annotation(text="○ open marker: partial or flagged, not ranked",
+        fig.add_annotation(text=MARKER_NOTE,
                            xref="paper", yref="paper", x=0, y=0, yshift=-50,
                            showarrow=False, xanchor="left", yanchor="top",
                            font=dict(size=11))
     return fig
 
 
+#: Legend name of a site's years left out of its whole-span total (after the site's id).
+OPEN_NAME = "(open: not in the whole-span total)"
+#: The note of the markers of :func:`network_totals` with many sites (no legend entry
+#: per site for the open markers): the ranking's rule in one line.
+MARKER_NOTE = ("● a year in the whole-span total that ranks the site (◆ flagged: used "
+               "with a caution) · ○ open: a year left out of it (partial or failing "
+               "completeness)")
 #: Line dashes of the sites past the first round of :data:`SITE_CYCLE`.
 SITE_DASHES = ("solid", "dot", "dash", "dashdot", "longdash")
 #: Height of a bar of the ranking, tick label included [px] (every site named: plotly
@@ -478,6 +492,13 @@ RANK_BAR_PX = 17
 #: Bar colours of the ranking groups: every component first, then the partial groups.
 RANKING_COLOURS = (OKABE_ITO["blue"], OKABE_ITO["orange"], OKABE_ITO["reddish_purple"],
                    OKABE_ITO["bluish_green"], OKABE_ITO["vermillion"], OKABE_ITO["sky_blue"])
+
+
+def _rank_label(rank, site, group_tail, status) -> str:
+    """``2 · ridge (flagged)``, ``1 · b (without NO2)``: the bar's label, its group (past
+    the first) and a flagged status beside the rank."""
+    extra = [x for x in (group_tail, "flagged" if status == "flagged" else "") if x]
+    return f"{rank} · {site}" + (f" ({', '.join(extra)})" if extra else "")
 
 
 def network_ranking_bars(ranking: pd.DataFrame, element: str, unit="kg/ha/yr",
@@ -503,8 +524,11 @@ def network_ranking_bars(ranking: pd.DataFrame, element: str, unit="kg/ha/yr",
     labels = []
     for k, (group, g) in enumerate(ranked.groupby("group", sort=False)):
         tail = "" if k == 0 and not group.startswith("partial") else \
-            f" ({group.removeprefix('partial: ')})"
-        y = [f"{r} · {s}{tail}" for r, s in zip(g["rank"], g["site"])]
+            group.removeprefix('partial: ')
+        # a flagged total is ranked (it holds every component of its group and passes
+        # completeness) and says so beside its rank: used with a caution
+        y = [_rank_label(r, s, tail, st)
+             for r, s, st in zip(g["rank"], g["site"], g["status"].astype(str))]
         labels += y
         fig.add_trace(go.Bar(
             y=y, x=g["value"], orientation="h", name=group,
@@ -526,7 +550,8 @@ def network_ranking_bars(ranking: pd.DataFrame, element: str, unit="kg/ha/yr",
         fig.update_xaxes(visible=False)
         fig.update_yaxes(visible=False)
     fig.update_layout(title=f"{element} total, whole span: ranked on equal footing<br>"
-                            "<sup>partial totals apart, per missing set</sup>",
+                            "<sup>partial totals apart, per missing set; flagged: ranked, "
+                            "used with a caution</sup>",
                       xaxis_title=axis_text(unit, element=element), yaxis_title="rank · site",
                       yaxis=dict(autorange="reversed", categoryorder="array",
                                  categoryarray=labels, tickmode="array", tickvals=labels,

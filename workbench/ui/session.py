@@ -194,7 +194,9 @@ class Session:
 
     @property
     def years(self) -> tuple:
-        """(first, last) calendar year with data, limited by the scenario's period."""
+        """(first, last) calendar year with data, limited by the scenario's period: the
+        default span of a run (:meth:`Study.span <workbench.pipeline.Study.span>`, no
+        year of a few days at either end) where ``[period]`` gives no start or end."""
         s0, e0 = self.study.span()
         p = self.scenario.data["period"]
         s0 = np.datetime64(p["start"]) if p.get("start") else s0

@@ -526,7 +526,8 @@ def change_line(before: pd.DataFrame | None, after: pd.DataFrame, unit="kg/ha/yr
     return "; ".join(parts)
 
 
-def network_table(year_ds: xr.Dataset, catalogue=None, unit="kg/ha/yr") -> pd.DataFrame:
+def network_table(year_ds: xr.Dataset, catalogue=None, unit="kg/ha/yr",
+                  span=None) -> pd.DataFrame:
     """Annual totals of every site on its own surface, over the years.
 
     Parameters
@@ -536,12 +537,18 @@ def network_table(year_ds: xr.Dataset, catalogue=None, unit="kg/ha/yr") -> pd.Da
     catalogue : SiteCatalogue, optional
         Gives each site's own land use (the receptor shown); default the first active
         receptor of the site.
+    span : pandas.DataFrame, optional
+        :func:`network_span` rows: ``rankable`` is then the ranking's own rule, the
+        years its whole-span total averages (``years_used``).  Without it, a year
+        whose total is ``complete`` or ``filled`` (:data:`RANKABLE`).
 
     Returns
     -------
     pandas.DataFrame
         ``site, receptor, period, element, value`` [unit], ``status``, ``missing``,
-        ``rankable`` (bool: the total holds every species and passes completeness).
+        ``rankable`` (bool: the year enters the whole-span total that ranks the site:
+        it holds every component the used years hold and passes completeness; a
+        ``flagged`` year may, with a caution).
     """
     rows = []
     for site in year_ds["site"].values.astype(str):
@@ -554,7 +561,14 @@ def network_table(year_ds: xr.Dataset, catalogue=None, unit="kg/ha/yr") -> pd.Da
         t = t[t["pathway"] == "total"].assign(site=site, receptor=rec)
         rows.append(t)
     t = pd.concat(rows, ignore_index=True)
-    t["rankable"] = t["status"].isin(RANKABLE) & np.isfinite(t["value"])
+    if span is None:
+        t["rankable"] = t["status"].isin(RANKABLE) & np.isfinite(t["value"])
+    else:       # the years of each site's whole-span total: those the ranking averages
+        used = {(str(r.site), str(r.element)): set(str(r.years_used).split())
+                for r in span.itertuples() if isinstance(r.years_used, str)}
+        t["rankable"] = np.array([str(p) in used.get((str(s), str(e)), ()) for s, e, p in
+                                  zip(t["site"], t["element"], t["period"])], dtype=bool) \
+            & np.isfinite(t["value"].astype(float))
     return t[["site", "receptor", "period", "element", "value", "status", "missing", "rankable"]]
 
 
