@@ -148,8 +148,8 @@ def test_critical_loads_app_opens_on_the_sites_last_year_not_a_new_years_tail(tm
         "coast_distance_km = 1.5\n", "coast_distance_km = 1.5\n\n[site.critical_loads]\n"
         "cl_nut_n = 500.0\n"))
     session = Session.open(scenario)
-    # the record reaches 2022-01-04: the default span leaves those days out since
-    # sb-period (workbench.periods.default_span), the app clamps as before
+    # the record reaches 2022-01-04: the default span leaves those days out
+    # (workbench.periods.default_span), the app clamps as before
     assert session.study.record_span()[1] > np.datetime64("2022-01-04")
     assert session.years == (2021, 2021)
     assert session.site_years("saltcove") == (2021, 2021)
@@ -180,7 +180,7 @@ def test_sensitivity_page_heads_with_the_sites_last_year_not_a_new_years_tail(tm
                 '[sensitivity.factors]\nvd_SO2 = [0.5, 1.5]\ngauge_catch = [0.9, 1.1]\n')
     files = write_sensitivity(load_scenario(scenario), tmp_path / "sens", quiet=True)
     frame = pd.read_csv(files["sensitivity.csv"], dtype={"period": str})
-    # the tables hold the years of the default span: 2021 (since sb-period the four
+    # the tables hold the years of the default span: 2021 (the four
     # days of 2022 are no period of their own, workbench.periods.default_span)
     assert set(frame["period"]) == {"2021"}
     page = files["sensitivity.html"].read_text(encoding="utf-8")
