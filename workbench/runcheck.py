@@ -251,16 +251,28 @@ def verify_run(run, scenario=None) -> Verification:
                 bad(f"option {key}")
 
     # ------------------------------------------------------------------ inputs
+    # a `workbench grid` run reads the files of the scenario's [grid] section, a site
+    # run (or an apps' export) those of its [inputs]
+    grid_run = "grid.nc" in (prov.get("outputs") or [])
+    now = None
+    if loaded is not None:
+        if grid_run:
+            from .grid_output import grid_paths
+            now = grid_paths(loaded)
+        else:
+            now = loaded.input_paths()
+    section = "[grid]" if grid_run else "[inputs]"
     for role, rec in records.items():
         if role == "scenario":
             continue
         name = rec.get("in_scenario_folder") or Path(rec.get("path", role)).name
-        if loaded is not None:
-            p = loaded.input_path(role)
+        if now is not None:
+            p = now.get(role)
             found, looked = (p if p is not None and p.exists() else None), [p]
             if p is None:
                 bad(f"input {role} not in the scenario")
-                say(f"input {role} ({name}): the scenario names no {role} file now")
+                say(f"input {role} ({name}): the scenario's {section} names no {role} "
+                    "file now")
                 continue
         else:
             found, looked = _find(rec, run)
@@ -280,8 +292,8 @@ def verify_run(run, scenario=None) -> Verification:
                 f"{short_digest(sha256(found))} now)")
         else:
             say(f"input {role} ({name}): as at the run")
-    if loaded is not None:
-        for role in loaded.input_paths():
+    if now is not None:
+        for role in now:
             if role not in records:
                 bad(f"input {role} added")
                 say(f"input {role}: named by the scenario now, not used by the run")
