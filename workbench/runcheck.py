@@ -183,6 +183,10 @@ def verify_run(run, scenario=None) -> Verification:
     say(f"run folder {run}")
     say(f"  written {prov.get('run_finished_utc', '?')} by deposition workbench {made}"
         + ("" if made == __version__ else f" (this is {__version__}: a new run may differ)"))
+    sites = prov.get("sites")
+    if sites:               # an apps' export computes one site of its scenario's catalogue
+        shown = ", ".join(sites[:8]) + (f" and {len(sites) - 8} more" if len(sites) > 8 else "")
+        say(f"  sites computed: {shown}")
 
     # ------------------------------------------------------------------ outputs
     sums = prov.get("output_sha256")
