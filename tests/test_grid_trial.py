@@ -340,3 +340,21 @@ def test_verify_of_a_grid_run_folder_moved_whole(tmp_path, capsys, monkeypatch):
         + " differs from the run" in text
     assert "input met (met.nc): as at the run" in text
     assert "1 difference(s)" in text
+
+
+def test_check_of_a_grid_scenario_reads_the_grid(tmp_path, capsys):
+    """`workbench check` of a scenario with a [grid] section only (sf-trial).  Old code:
+    "error: ...: no site catalogue", exit 2, so a grid user could not check the files
+    before a run.  Now the grid files are opened and checked and the periods counted; a
+    grid file that is not there is the scenario's located error."""
+    scenario = make_demo_grid(tmp_path / "in", n=4)
+    capsys.readouterr()
+    assert main(["check", str(scenario)]) == 0
+    out = capsys.readouterr().out
+    assert "grid 4 x 4 cells" in out
+    assert "periods: 1 month period\n" in out
+    assert "run it with `workbench grid SCENARIO --out DIR`" in out
+    (tmp_path / "in" / "land_use.nc").rename(tmp_path / "in" / "landuse.nc")
+    assert main(["check", str(scenario)]) == 2
+    err = capsys.readouterr().err
+    assert "column 'grid.land_use': input file does not exist: got 'land_use.nc'" in err
