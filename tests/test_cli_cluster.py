@@ -166,3 +166,25 @@ def test_line_end_tracks_the_open_line():
     s.end_line()
     assert s.stream.getvalue() == "\rbar 1/6\ndone\n"
     assert s.getvalue() == s.stream.getvalue()            # the rest passes through
+
+
+def test_a_scheduler_that_is_not_there_is_named(tiny, tmp_path, capsys):
+    """--scheduler at an address where no scheduler runs (sf-trial): one line naming
+    the address and what was expected, exit 2, no run folder.  Old code: "error: could
+    not read or write None: Timed out trying to connect to ..."."""
+    import socket
+    pytest.importorskip("distributed")
+    import dask
+    with socket.socket() as s:          # a free port: nothing listens on it
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    address = f"tcp://127.0.0.1:{port}"
+    out = tmp_path / "run"
+    with dask.config.set({"distributed.comm.timeouts.connect": "2s"}):
+        assert main(["run", str(tiny), "--out", str(out), "--quiet",
+                     "--scheduler", address]) == 2
+    err = capsys.readouterr().err
+    assert f"error: could not reach the dask scheduler at {address}: " in err
+    assert "None" not in err and "Traceback" not in err
+    assert len(err.strip().splitlines()) == 1
+    assert not out.exists()

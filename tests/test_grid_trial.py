@@ -303,3 +303,58 @@ def test_met_in_local_time_is_explained(tmp_path):
     assert "solar radiation at night" in note[0]
     assert "check that the time coordinate is UTC" in note[0]
     assert "utc_offset_h" not in note[0]
+
+
+def test_verify_of_a_grid_run_folder_moved_whole(tmp_path, capsys, monkeypatch):
+    """A `workbench grid` run folder handed to a colleague with its project (sf-trial).
+    Old code: `workbench verify` looked for the grid's files in the scenario's
+    [inputs] ("the scenario names no met file now", exit 1 for an untouched folder),
+    said "runs of this version do" record output checksums when grid runs did not,
+    recorded no path relative to the run folder, and `run_finished_utc` was the time
+    the blocks started, not the end."""
+    import shutil
+    project = tmp_path / "ann" / "study"
+    scenario = make_demo_grid(project / "grid", n=4)
+    out = project / "runs" / "grid"
+    ds, prov = _run(scenario, out, "--block", "2")
+    assert prov["run_finished_utc"] >= prov["run_started_utc"]
+    assert prov["grid_block"] == 2
+    assert set(prov["output_sha256"]) == {"grid.nc"}
+    assert prov["inputs"]["land_use"]["from_run_folder"] == "../../grid/land_use.nc"
+    moved = tmp_path / "bert" / "unpacked"
+    shutil.move(str(project), str(moved))                 # A's folder is gone
+    monkeypatch.chdir(tmp_path / "bert")
+    capsys.readouterr()
+    assert main(["verify", "unpacked/runs/grid"]) == 0
+    text = capsys.readouterr().out
+    assert "outputs: the 1 file (grid.nc) is as written" in text
+    for role, name in (("met", "met.nc"), ("air", "air.nc"), ("land_use", "land_use.nc")):
+        assert f"input {role} ({name}): as at the run" in text
+    assert "result: the run folder matches its scenario and inputs" in text
+    # one input edited after the run: verify names that file, and only it
+    _rewrite(moved / "grid" / "land_use.nc",
+             lambda d: d.assign_attrs(comment="edited after the run"))
+    assert main(["verify", "unpacked/runs/grid"]) == 1
+    text = capsys.readouterr().out
+    assert "input land_use (land_use.nc): " + str(moved / "grid" / "land_use.nc") \
+        + " differs from the run" in text
+    assert "input met (met.nc): as at the run" in text
+    assert "1 difference(s)" in text
+
+
+def test_check_of_a_grid_scenario_reads_the_grid(tmp_path, capsys):
+    """`workbench check` of a scenario with a [grid] section only (sf-trial).  Old code:
+    "error: ...: no site catalogue", exit 2, so a grid user could not check the files
+    before a run.  Now the grid files are opened and checked and the periods counted; a
+    grid file that is not there is the scenario's located error."""
+    scenario = make_demo_grid(tmp_path / "in", n=4)
+    capsys.readouterr()
+    assert main(["check", str(scenario)]) == 0
+    out = capsys.readouterr().out
+    assert "grid 4 x 4 cells" in out
+    assert "periods: 1 month period\n" in out
+    assert "run it with `workbench grid SCENARIO --out DIR`" in out
+    (tmp_path / "in" / "land_use.nc").rename(tmp_path / "in" / "landuse.nc")
+    assert main(["check", str(scenario)]) == 2
+    err = capsys.readouterr().err
+    assert "column 'grid.land_use': input file does not exist: got 'land_use.nc'" in err

@@ -282,7 +282,17 @@ def start_client(workers=None, scheduler=None):
     from .optional import require
     distributed = require("distributed")
     if scheduler:
-        return distributed.Client(scheduler)
+        try:
+            return distributed.Client(scheduler)
+        except (OSError, ValueError, TypeError) as exc:
+            # a scheduler that is not running, a wrong host or port, or an address dask
+            # cannot parse: one line naming the address (it read "could not read or
+            # write None: Timed out ...")
+            from .errors import WorkbenchError
+            raise WorkbenchError(
+                f"could not reach the dask scheduler at {scheduler}: {exc}; expected the "
+                "address of a running scheduler (`dask scheduler` prints it, e.g. "
+                "tcp://host:8786), reachable from this machine") from None
     import dask
     unset = {f"distributed.nanny.pre-spawn-environ.{name}": None
              for name in UNSET_WORKER_ENVIRON}

@@ -90,6 +90,8 @@ def cmd_check(args) -> int:
     hint = run_folder_hint(args.scenario)
     if hint:
         raise RunRecordError(hint)
+    if _check_grid_only(args.scenario):
+        return 0
     prep = prepare(args.scenario, progress=_progress(args.quiet))
     print(f"scenario: {prep.scenario.path}")
     print(_inputs_text(prep.study.inputs))
@@ -98,6 +100,41 @@ def cmd_check(args) -> int:
     print()
     print(prep.describe())
     return 0
+
+
+def _check_grid_only(path) -> bool:
+    """``workbench check`` of a scenario with a ``[grid]`` section and no site catalogue:
+    open and check the three grid files (metadata, coordinates, times, the 2-D fields:
+    :func:`workbench.grid_io.open_grid`) and the reporting periods, and print what
+    ``workbench grid`` would compute; False for any other scenario.  It said "no site
+    catalogue" before, so a grid could not be checked before its run."""
+    from pathlib import Path as _Path
+    if not _Path(path).is_file():
+        return False                     # the site path says where it looked
+    from .scenario import load_scenario
+    sc = load_scenario(path)
+    if "sites" in sc.input_paths() or not sc.data.get("grid"):
+        return False
+    from .errors import ScenarioError
+    from .grid import make_periods
+    from .grid_io import describe, open_grid
+    from .grid_output import grid_paths
+    paths = grid_paths(sc)
+    if len(paths) != 3:
+        raise ScenarioError("no [grid] section", file=sc.path, column="grid",
+                            expected="a [grid] section with met, air and land_use paths")
+    grid = open_grid(paths["met"], paths["air"], paths["land_use"])
+    p = sc.data["period"]
+    periods = make_periods(grid, p["resolution"], p["start"], p["end"])
+    print(f"scenario: {sc.path}")
+    print(describe(grid))
+    for note in grid.notes:
+        print(f"note: {note}")
+    print(f"periods: {len(periods)} {p['resolution']} period{'s' if len(periods) != 1 else ''}")
+    print("the grid files were read and checked (metadata, coordinates, times, land-use "
+          "classes; the hourly values are checked block by block as the run reads them): "
+          "run it with `workbench grid SCENARIO --out DIR`")
+    return True
 
 
 def absent_site_lines(inputs) -> list[str]:

@@ -437,7 +437,7 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
     from .scenario import load_scenario
     from .io.inputs import file_stamp
     from .io.readbytes import changed_while_read
-    from .writers import changed_note, provenance
+    from .writers import changed_note, provenance, sha256
     sc = load_scenario(scenario_path)
     paths = grid_paths(sc)
     if len(paths) != 3:
@@ -473,7 +473,9 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
             if client is not None:             # the tasks run on the cluster
                 where = (f" on the dask scheduler at {scheduler}" if scheduler
                          else f" on a local dask cluster of {workers} workers")
-            prov = provenance(sc, {"scenario": sc.path, **paths}, started,
+            # inputs also named relative to the run folder (a project moved whole is
+            # found by `workbench verify`, as for a site run)
+            prov = provenance(sc, {"scenario": sc.path, **paths}, started, out=folder.out,
                               read={"scenario": sc.sha256, **read})
             history = (f"{started:%Y-%m-%dT%H:%M:%SZ} workbench grid {sc.path} (deposition "
                        f"workbench {__version__}; blocks of {block} cells"
@@ -512,12 +514,19 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
             print(f"warning: {changed_note(p_changed, None)}", file=sys.stderr)
         if changed:
             prov.update(provenance(sc, {"scenario": sc.path, **paths}, started,
-                                   changed=changed, read={"scenario": sc.sha256, **read}))
+                                   out=folder.out, changed=changed,
+                                   read={"scenario": sc.sha256, **read}))
         for note in missing:
             say(f"note: {note}")
         try:
             prov["outputs"] = [GRID_FILE, "provenance.json"]
+            # the checksum of grid.nc, for `workbench verify` (as a site run's outputs)
+            prov["output_sha256"] = {GRID_FILE: sha256(target)}
+            prov["grid_block"] = int(block)      # the maps are bit for bit per block size
             prov["notes"] = grid.notes
+            # provenance() was called before the blocks ran: the end is now
+            prov["run_finished_utc"] = _dt.datetime.now(_dt.timezone.utc).strftime(
+                "%Y-%m-%dT%H:%M:%SZ")
             (folder.path / "provenance.json").write_text(json.dumps(prov, indent=2, default=str))
         except OSError as exc:
             raise OutputError(os_error_message(exc, target) + "; nothing was written into the "

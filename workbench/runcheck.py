@@ -183,6 +183,10 @@ def verify_run(run, scenario=None) -> Verification:
     say(f"run folder {run}")
     say(f"  written {prov.get('run_finished_utc', '?')} by deposition workbench {made}"
         + ("" if made == __version__ else f" (this is {__version__}: a new run may differ)"))
+    sites = prov.get("sites")
+    if sites:               # an apps' export computes one site of its scenario's catalogue
+        shown = ", ".join(sites[:8]) + (f" and {len(sites) - 8} more" if len(sites) > 8 else "")
+        say(f"  sites computed: {shown}")
 
     # ------------------------------------------------------------------ outputs
     sums = prov.get("output_sha256")
@@ -203,7 +207,8 @@ def verify_run(run, scenario=None) -> Verification:
             say(f"outputs: {len(changed)} of {len(sums)} files differ from the run: "
                 + "; ".join(changed))
         else:
-            say(f"outputs: the {len(sums)} files are as written")
+            say(f"outputs: the {len(sums)} files are as written" if len(sums) != 1 else
+                f"outputs: the 1 file ({next(iter(sums))}) is as written")
 
     # ------------------------------------------------------------------ scenario
     records = prov["inputs"]
@@ -251,16 +256,28 @@ def verify_run(run, scenario=None) -> Verification:
                 bad(f"option {key}")
 
     # ------------------------------------------------------------------ inputs
+    # a `workbench grid` run reads the files of the scenario's [grid] section, a site
+    # run (or an apps' export) those of its [inputs]
+    grid_run = "grid.nc" in (prov.get("outputs") or [])
+    now = None
+    if loaded is not None:
+        if grid_run:
+            from .grid_output import grid_paths
+            now = grid_paths(loaded)
+        else:
+            now = loaded.input_paths()
+    section = "[grid]" if grid_run else "[inputs]"
     for role, rec in records.items():
         if role == "scenario":
             continue
         name = rec.get("in_scenario_folder") or Path(rec.get("path", role)).name
-        if loaded is not None:
-            p = loaded.input_path(role)
+        if now is not None:
+            p = now.get(role)
             found, looked = (p if p is not None and p.exists() else None), [p]
             if p is None:
                 bad(f"input {role} not in the scenario")
-                say(f"input {role} ({name}): the scenario names no {role} file now")
+                say(f"input {role} ({name}): the scenario's {section} names no {role} "
+                    "file now")
                 continue
         else:
             found, looked = _find(rec, run)
@@ -280,8 +297,8 @@ def verify_run(run, scenario=None) -> Verification:
                 f"{short_digest(sha256(found))} now)")
         else:
             say(f"input {role} ({name}): as at the run")
-    if loaded is not None:
-        for role in loaded.input_paths():
+    if now is not None:
+        for role in now:
             if role not in records:
                 bad(f"input {role} added")
                 say(f"input {role}: named by the scenario now, not used by the run")

@@ -461,6 +461,9 @@ def write_files(result, study, scenario, folder: Path, progress=None, started=No
                                   changed=changed, read=read_digests(study, scenario))
                 prov["outputs"] = names + ["provenance.json"]
                 prov["output_sha256"] = {n: sha256(folder / n) for n in names}
+                # the sites computed: an apps' export holds one site of the scenario's
+                # catalogue, which its options (prov["scenario"]) do not say
+                prov["sites"] = [str(s) for s in study.inputs.catalogue.ids]
                 prov["input_notes"] = [shown_text(str(n), base) for n in study.inputs.ledger.notes]
                 prov["run_notes"] = ([shown_text(str(n), base)
                                       for n in getattr(result, "notes", [])]

@@ -220,3 +220,37 @@ def test_new_engine_factors_change_the_dry_options_and_refuse_unknown_names():
         S.SensitivityOptions(factors={"vd_SO2": (0.5, 1.5), "nh3_gamma_lawn": (0.0, 10.0)})
     with pytest.raises(ValueError, match="must be > 0"):
         S.SensitivityOptions(factors={"vd_SO2": (0.5, 1.5), "rc_scale_SO2": (0.0, 2.0)})
+
+
+def test_a_sensitivity_folder_records_what_made_it_and_verifies(tiny, tmp_path, capsys):
+    """A sensitivity folder handed to a colleague (sf-trial): provenance.json, written
+    last, names the version, every option in force (the [sensitivity] seed and factors
+    among them), the inputs with their SHA-256 and the checksum of every file, so that
+    `workbench verify` checks it and names an input edited afterwards.  Old code: no
+    provenance.json; verify said "not a finished run folder (`workbench run` writes it
+    last)" of a finished folder."""
+    import json
+    import shutil
+    from workbench.cli import main
+    from workbench.scenario import load_scenario
+    shared, _, _, _ = tiny                # a fixture shared with other tests: a copy
+    shutil.copytree(shared.path.parent, tmp_path / "proj")
+    sc = load_scenario(tmp_path / "proj" / shared.path.name)
+    out = tmp_path / "sens"
+    assert main(["sensitivity", str(sc.path), "--out", str(out), "--quiet"]) == 0
+    prov = json.loads((out / "provenance.json").read_text())
+    assert prov["outputs"][-1] == "provenance.json"
+    assert set(prov["output_sha256"]) == {"sensitivity.csv", "tornado.csv",
+                                          "sensitivity.html", "CAUTION.txt"}
+    assert prov["scenario"]["sensitivity"]["seed"] == sc.options["sensitivity"].seed
+    assert set(prov["scenario"]["sensitivity"]["factors"]) == \
+        {"vd_SO2", "gauge_catch", "wetness_rule"}
+    assert set(prov["inputs"]) >= {"scenario", "sites", "precipitation", "air", "met"}
+    capsys.readouterr()
+    assert main(["verify", str(out)]) == 0
+    assert "result: the run folder matches its scenario and inputs" in capsys.readouterr().out
+    air = sc.input_path("air")
+    assert air.is_relative_to(tmp_path / "proj")     # the copy's, not the shared file
+    air.write_text(air.read_text() + "\n")
+    assert main(["verify", str(out)]) == 1
+    assert f"input air ({air.name}): {air} differs from the run" in capsys.readouterr().out

@@ -500,20 +500,28 @@ def write_sensitivity(scenario, out, overwrite=False, quiet=False) -> dict:
     say = (lambda text: None) if quiet else (lambda text: print(text, file=sys.stderr))
     with RunFolder(Path(out), {"scenario": sc.path, **sc.input_paths()}, overwrite,
                    say=say) as folder:      # whole or not at all, as a run folder
-        names = _write_sensitivity(sc, folder.path, quiet)
+        names = _write_sensitivity(sc, folder.path, quiet, run_folder=folder.out)
         final = folder.commit()
     return {name: final / name for name in names}
 
 
-def _write_sensitivity(sc, out, quiet):
-    """Compute and write the files of :func:`write_sensitivity` into the folder `out`."""
+def _write_sensitivity(sc, out, quiet, run_folder=None):
+    """Compute and write the files of :func:`write_sensitivity` into the folder `out`,
+    ``provenance.json`` last (what made them, as a run folder's: the scenario with every
+    option, the inputs with their SHA-256, the output checksums; `run_folder` is the
+    folder `out` becomes, for the inputs' paths relative to it), so that
+    ``workbench verify`` checks a sensitivity folder too."""
+    import datetime as _dt
+    import json
     import sys
 
     from tqdm.auto import tqdm
 
     from ..pipeline import Study
     from ..writers import atomic_write
+    started = _dt.datetime.now(_dt.timezone.utc)
     study = Study.from_scenario(sc)
+    whole = study                   # every input as read (its checksums), before a subset
     opt = with_bulk_factor(sc.options["sensitivity"], sc.options["budget"], study.catalogue())
     _check_cells(sc, study.catalogue(), opt)
     if opt.sites:              # the engine computes the sites analysed only
@@ -541,6 +549,21 @@ def _write_sensitivity(sc, out, quiet):
                                                lambda t: t.write_text(html, encoding="utf-8"))
     from ..csvcaution import CAUTION_FILE, write_folder_caution
     written[CAUTION_FILE] = write_folder_caution(out, atomic_write)   # the CSVs carry none
+    from ..writers import (changed_note, changed_since_read, input_paths, provenance,
+                           read_digests, scenario_base, sha256)
+    changed = changed_since_read(whole, sc)
+    prov = provenance(sc, input_paths(whole, sc), started,
+                      out=out if run_folder is None else run_folder, changed=changed,
+                      read=read_digests(whole, sc))
+    names = list(written)
+    prov["outputs"] = names + ["provenance.json"]
+    prov["output_sha256"] = {n: sha256(out / n) for n in names}
+    prov["sites"] = [str(s) for s in study.inputs.catalogue.ids]
+    base = scenario_base(sc)
+    prov["run_notes"] = [changed_note(p, base) for p in changed.values()]
+    written["provenance.json"] = atomic_write(
+        out / "provenance.json",
+        lambda t: t.write_text(json.dumps(prov, indent=2, default=str)))
     return list(written)
 
 

@@ -581,7 +581,7 @@ def _geometry(t, err, notes, label):
     if z_wind <= d_m:
         raise err("anemometer at or below the displacement height", d_key, t.get(d_key),
                   f"wind_height_m {z_wind:g} m above the displacement height d = {d_m:.3g} m "
-                  f"of the mast's surface {mast!r} (d/h = 2/3 unless given)")
+                  f"of the mast's surface {mast!r} ({_d_rule(d_key, d_m, h_m, mast)})")
     if np.isfinite(z0_m) and z_wind - d_m <= z0_m:
         raise err("anemometer within the roughness length above d", "wind_height_m", z_wind,
                   f"wind_height_m - d ({z_wind - d_m:.3g} m) larger than z0 = {z0_m:.3g} m")
@@ -664,3 +664,15 @@ def site_dict(site: Site) -> dict:
     if site.changes:
         out["change"] = [c.as_dict() for c in site.changes]
     return out
+
+
+def _d_rule(d_key, d_m, h_m, mast) -> str:
+    """Where the displacement height of an error came from: given, or the class rule
+    (d/h = 0.772 for forests, 2/3 for short vegetation, 0.5 urban:
+    docs/methods_dry_particles.md section 3; the message said "d/h = 2/3" for all)."""
+    if d_key == "displacement_height_m":
+        return "given as displacement_height_m"
+    if h_m > 0:
+        return (f"d = {d_m / h_m:.3g} h, the rule of class {mast!r}, "
+                "docs/methods_dry_particles.md section 3, unless displacement_height_m is given")
+    return f"the rule of class {mast!r}"
