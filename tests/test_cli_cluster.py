@@ -169,7 +169,7 @@ def test_line_end_tracks_the_open_line():
 
 
 def test_a_scheduler_that_is_not_there_is_named(tiny, tmp_path, capsys):
-    """--scheduler at an address where no scheduler runs (sf-trial): one line naming
+    """--scheduler at an address where no scheduler runs (a trial user): one line naming
     the address and what was expected, exit 2, no run folder.  Old code: "error: could
     not read or write None: Timed out trying to connect to ..."."""
     import socket

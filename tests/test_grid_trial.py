@@ -306,7 +306,7 @@ def test_met_in_local_time_is_explained(tmp_path):
 
 
 def test_verify_of_a_grid_run_folder_moved_whole(tmp_path, capsys, monkeypatch):
-    """A `workbench grid` run folder handed to a colleague with its project (sf-trial).
+    """A `workbench grid` run folder handed to a colleague with its project (a trial user).
     Old code: `workbench verify` looked for the grid's files in the scenario's
     [inputs] ("the scenario names no met file now", exit 1 for an untouched folder),
     said "runs of this version do" record output checksums when grid runs did not,
@@ -343,7 +343,7 @@ def test_verify_of_a_grid_run_folder_moved_whole(tmp_path, capsys, monkeypatch):
 
 
 def test_check_of_a_grid_scenario_reads_the_grid(tmp_path, capsys):
-    """`workbench check` of a scenario with a [grid] section only (sf-trial).  Old code:
+    """`workbench check` of a scenario with a [grid] section only (a trial user).  Old code:
     "error: ...: no site catalogue", exit 2, so a grid user could not check the files
     before a run.  Now the grid files are opened and checked and the periods counted; a
     grid file that is not there is the scenario's located error."""

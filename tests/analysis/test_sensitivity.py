@@ -223,7 +223,7 @@ def test_new_engine_factors_change_the_dry_options_and_refuse_unknown_names():
 
 
 def test_a_sensitivity_folder_records_what_made_it_and_verifies(tiny, tmp_path, capsys):
-    """A sensitivity folder handed to a colleague (sf-trial): provenance.json, written
+    """A sensitivity folder handed to a colleague (a trial user): provenance.json, written
     last, names the version, every option in force (the [sensitivity] seed and factors
     among them), the inputs with their SHA-256 and the checksum of every file, so that
     `workbench verify` checks it and names an input edited afterwards.  Old code: no

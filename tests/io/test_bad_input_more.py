@@ -190,7 +190,7 @@ SITE_CASES = {
         ("wind_height_m = 30.0", "wind_height_m = 12.0"),
         "line 26, column 'wind_height_m': anemometer at or below the displacement height: "
         "got '12.0', expected wind_height_m 12 m above the displacement height d = 15.4 m"),
-    # the rule named is the forest's (Raupach: d = 0.772 h), not "d/h = 2/3" (sf-trial)
+    # the rule named is the forest's (Raupach: d = 0.772 h), not "d/h = 2/3"
     "anemometer_below_forest_d_names_its_rule": (
         ("wind_height_m = 30.0", "wind_height_m = 12.0"),
         "d = 15.4 m of the mast's surface 'deciduous_forest' (d = 0.772 h, the rule of class "

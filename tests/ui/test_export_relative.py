@@ -35,7 +35,7 @@ def test_exported_run_names_inputs_relative_and_verifies_after_a_move(tmp_path):
 
 def test_an_export_of_one_site_records_which_site(tmp_path):
     """An apps' export of one site of a two-site scenario: provenance.json says which
-    site it computed (sf-trial: the old record held the scenario's options and the
+    site it computed (the old record held the scenario's options and the
     years, but not the site, so a colleague could not tell from it what made the
     numbers), and `workbench verify` shows it."""
     from workbench.runcheck import verify_run
