@@ -73,12 +73,8 @@ def fahrenheit_days(temperature_k, codes, t) -> np.ndarray:
     ndarray of bool
         True on the rows of the days found.
     """
-    x = np.asarray(temperature_k, float) - ZERO_CELSIUS          # degC as read
+    x, order, xs, cs, _, step = _sorted_steps(temperature_k, codes, t, by_hour=False)
     day = np.asarray(t, "datetime64[D]")
-    order = np.lexsort((t, codes))
-    xs, cs = x[order], codes[order]
-    step = np.r_[np.nan, np.diff(xs)]
-    step[np.r_[True, cs[1:] != cs[:-1]]] = np.nan            # no step across sites
     frame = pd.DataFrame({"site": cs, "day": day[order], "x": xs,
                           "rise": step, "drop": -step})
     daily = frame.groupby(["site", "day"]).agg(
@@ -166,15 +162,11 @@ def fahrenheit_edges(temperature_k, codes, t) -> np.ndarray:
     ndarray of bool
         True on the rows of the runs found.
     """
-    x = np.asarray(temperature_k, float) - ZERO_CELSIUS          # degC as read
+    x, order, xs, cs, linked, _ = _sorted_steps(temperature_k, codes, t)
     n = len(x)
     out = np.zeros(n, bool)
     if n < 3:
         return out
-    order = np.lexsort((t, codes))
-    xs, cs = x[order], np.asarray(codes)[order]
-    ts = np.asarray(t, "datetime64[h]")[order].astype(np.int64)
-    linked = np.r_[False, (cs[1:] == cs[:-1]) & (ts[1:] - ts[:-1] == 1)]   # hour i-1 -> i
     prev = np.r_[np.nan, xs[:-1]]
     # the degC hour next to an edge carried on by one hour (its trend from the hour
     # beyond; the diurnal cycle is smooth), where that hour is linked too
@@ -259,3 +251,50 @@ def _edged(daily, bad) -> np.ndarray:
         last_edge = end & ((drop >= JUMP_MIN) | (drop_after >= JUMP_MIN))
     ok_blocks = np.unique(block[bad & (first_edge | last_edge)])
     return np.isin(block, ok_blocks) & bad
+
+
+def _sorted_steps(temperature_k, codes, t, by_hour=True):
+    """The shared start of the degF checks: the record sorted by site and hour.
+
+    Parameters
+    ----------
+    temperature_k : ndarray
+        Temperature as read from a degC header [K] (NaN where missing).
+    codes : ndarray of int
+        Site code of each row.
+    t : ndarray of datetime64
+        Hour of each row.
+    by_hour : bool
+        Whether a step needs the next row to be the next hour (True; the edges) or only
+        the same site (False; the daily test's largest rise and drop of a day).
+
+    Returns
+    -------
+    x : ndarray
+        degC as read, in the rows' order [degC].
+    order : ndarray of int
+        The rows sorted by site, then hour.
+    xs, cs : ndarray
+        `x` and `codes` in that order [degC, -].
+    linked : ndarray of bool
+        Row i of the sorted record follows row i - 1 (same site; and, with `by_hour`,
+        the next hour).
+    step : ndarray
+        ``xs[i] - xs[i - 1]`` where linked, NaN elsewhere [K].
+
+    >>> t = np.array(["2020-01-01T02", "2020-01-01T01", "2020-01-01T05"], "datetime64[h]")
+    >>> _, order, xs, _, linked, step = _sorted_steps(np.array([3.0, 1.0, 9.0]) + ZERO_CELSIUS,
+    ...                                               np.zeros(3, int), t)
+    >>> order.tolist(), linked.tolist(), np.round(step, 6).tolist()
+    ([1, 0, 2], [False, True, False], [nan, 2.0, nan])
+    """
+    x = np.asarray(temperature_k, float) - ZERO_CELSIUS          # degC as read
+    codes = np.asarray(codes)
+    order = np.lexsort((t, codes))
+    xs, cs = x[order], codes[order]
+    linked = np.r_[False, cs[1:] == cs[:-1]]                    # no step across sites
+    if by_hour:
+        ts = np.asarray(t, "datetime64[h]")[order].astype(np.int64)
+        linked &= np.r_[False, ts[1:] - ts[:-1] == 1]            # hour i-1 -> i
+    step = np.where(linked, np.r_[np.nan, np.diff(xs)], np.nan)
+    return x, order, xs, cs, linked, step
