@@ -78,13 +78,14 @@ def invented_rh(rng, smooth, actual):
     return np.minimum(e / saturation_hpa(actual), 1.0) + rng.normal(0, 0.01, n)
 
 
-def run(climate, years, seeds, run_days, steps=False, rh=True):
+def run(climate, years, seeds, run_days, steps=False, rh=True, spells_keep_rh=False):
     false_days = found = total = 0
     for seed in range(seeds):
         rng = np.random.default_rng(seed)
         t, x0 = invented_year(rng, climate, years)
         x = with_steps(rng, x0) if steps else x0
-        r = invented_rh(np.random.default_rng(seed + 1000), x0, x) if rh else None
+        r = (invented_rh(np.random.default_rng(seed + 1000), x if spells_keep_rh else x0, x)
+             if rh else None)
         codes = np.zeros(len(t), np.int64)
         hit = found_rows(x + ZERO_CELSIUS, codes, t, r)
         false_days += len(np.unique(t[hit].astype("datetime64[D]")))
@@ -115,6 +116,9 @@ def main(argv=None):
     ap.add_argument("--no-rh", action="store_true",
                     help="the edges without the relative humidity (the reader before the "
                          "cold edges)")
+    ap.add_argument("--spells-keep-rh", action="store_true",
+                    help="a worst case: each abrupt spell keeps the relative humidity of "
+                         "the air before it (its vapour pressure changes with it)")
     args = ap.parse_args(argv)
     if args.daily_only:
         global found_rows
@@ -127,7 +131,8 @@ def main(argv=None):
     for climate in CLIMATES:
         for days in (0.25, 1, 3, 14, 45):
             fa, det = run(climate, args.years, args.seeds, days, rh=not args.no_rh)
-            fs, _ = run(climate, args.years, args.seeds, 0, steps=True, rh=not args.no_rh)
+            fs, _ = run(climate, args.years, args.seeds, 0, steps=True, rh=not args.no_rh,
+                        spells_keep_rh=args.spells_keep_rh)
             rows.append((climate, days, fa, fs, det))
             print(f"| {climate} | {days} | {fa:.3f} | {fs:.3f} | {det:.2f} |", flush=True)
     return rows
