@@ -13,6 +13,10 @@ slip.  The values are not changed: the note is a hint for the analyst.
 The checks are those of :func:`workbench.wet.screen` with its options (ion balance
 tiers, detection-limit treatment, bicarbonate; capture ranges of unknown precipitation
 type, as the reader does not know the type), run on the samples as read.
+
+A few weeks of a depth in another length unit fail far under half of a site's samples;
+:func:`_depth_run_notes` names a run of :data:`RUN_MIN` or more consecutive samples
+that one other length unit brings back into the capture band.
 """
 from __future__ import annotations
 
