@@ -18,7 +18,8 @@ an hour, a warm spell comes over hours.
 :func:`fahrenheit_edges` finds the runs the daily test cannot judge (a few hours, whose
 day's mean moves little; days below -5 degC) by their two edges: the first hour of the
 run is 1.8 x (the hour before) + 32 and the hour after its last is back to the degC
-reading (see its docstring).
+reading (see its docstring); below -10 degC, where that jump is the size of a natural
+spell, only where the relative humidity holds steady across both edges.
 """
 from __future__ import annotations
 
