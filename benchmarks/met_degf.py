@@ -7,7 +7,10 @@ of 3 days' memory, diurnal amplitude): tundra, continental, temperate, hot deser
 tropical.  Clean records count false alarms (days found per site-year); slipped ones
 hold a run of L days (from 6 hours up) from a random hour written in degF, and count the
 share of the run's days found.  A stress of the false alarms adds 20 abrupt warm or cold
-spells a year (8-25 K within an hour, 2-96 h long, back within an hour).
+spells a year (8-25 K within an hour, 2-96 h long, back within an hour).  An invented
+relative humidity goes with each record (its vapour pressure follows the record without
+the spells; :func:`invented_rh`): ``--no-rh`` leaves it out, as a file without the
+column.
 """
 from __future__ import annotations
 
@@ -55,31 +58,53 @@ def with_steps(rng, x, per_year=20):
     return y
 
 
-def run(climate, years, seeds, run_days, steps=False):
+def saturation_hpa(c):
+    """Saturation vapour pressure over water [hPa] at `c` [degC] (Magnus formula,
+    WMO-No. 8 (2008) Annex 4.B)."""
+    return 6.112 * np.exp(17.62 * c / (243.12 + c))
+
+
+def invented_rh(rng, smooth, actual):
+    """Hourly relative humidity [1]: the air's vapour pressure follows the air mass of
+    the temperature `smooth` [degC] (an AR(1) relative humidity of mean 0.8, sd 0.08, a
+    day's memory, and the diurnal cycle), read at the temperature `actual` [degC] (a
+    natural spell of another air mass brings its temperature at the same vapour
+    pressure; a worst case: a drier warm air mass lowers it more), capped at 1."""
+    n = len(smooth)
+    a = np.exp(-1.0 / 24.0)
+    base = np.clip(0.8 + lfilter([np.sqrt(1 - a * a)], [1, -a], rng.normal(0, 0.08, n)),
+                   0.2, 1.0)
+    e = base * saturation_hpa(smooth)
+    return np.minimum(e / saturation_hpa(actual), 1.0) + rng.normal(0, 0.01, n)
+
+
+def run(climate, years, seeds, run_days, steps=False, rh=True, spells_keep_rh=False):
     false_days = found = total = 0
     for seed in range(seeds):
         rng = np.random.default_rng(seed)
-        t, x = invented_year(rng, climate, years)
-        if steps:
-            x = with_steps(rng, x)
+        t, x0 = invented_year(rng, climate, years)
+        x = with_steps(rng, x0) if steps else x0
+        r = (invented_rh(np.random.default_rng(seed + 1000), x if spells_keep_rh else x0, x)
+             if rh else None)
         codes = np.zeros(len(t), np.int64)
-        hit = found_rows(x + ZERO_CELSIUS, codes, t)
+        hit = found_rows(x + ZERO_CELSIUS, codes, t, r)
         false_days += len(np.unique(t[hit].astype("datetime64[D]")))
         if run_days:
             h = int(round(24 * run_days))
             a = int(rng.integers(0, 24 * 365 * years - h))   # from any hour
             y = x.copy()
             y[a:a + h] = y[a:a + h] * 1.8 + 32.0
-            hit = found_rows(y + ZERO_CELSIUS, codes, t)
+            hit = found_rows(y + ZERO_CELSIUS, codes, t, r)
             found += hit[a:a + h].sum() / 24
             total += run_days
     return false_days / (seeds * years), (found / total if total else np.nan)
 
 
-def found_rows(temperature_k, codes, t, edges=True):
-    """The rows the reader masks: the day test, and the edges of a run (new)."""
+def found_rows(temperature_k, codes, t, rh=None, edges=True):
+    """The rows the reader masks: the day test, and the edges of a run (with the
+    relative humidity `rh` [1] when given)."""
     hit = fahrenheit_days(temperature_k, codes, t)
-    return hit | fahrenheit_edges(temperature_k, codes, t) if edges else hit
+    return hit | fahrenheit_edges(temperature_k, codes, t, rh) if edges else hit
 
 
 def main(argv=None):
@@ -88,19 +113,26 @@ def main(argv=None):
     ap.add_argument("--seeds", type=int, default=10)
     ap.add_argument("--daily-only", action="store_true",
                     help="the daily test alone (the reader before the edges)")
+    ap.add_argument("--no-rh", action="store_true",
+                    help="the edges without the relative humidity (the reader before the "
+                         "cold edges)")
+    ap.add_argument("--spells-keep-rh", action="store_true",
+                    help="a worst case: each abrupt spell keeps the relative humidity of "
+                         "the air before it (its vapour pressure changes with it)")
     args = ap.parse_args(argv)
     if args.daily_only:
         global found_rows
         edges_too = found_rows
-        found_rows = lambda tk, c, t: edges_too(tk, c, t, edges=False)  # noqa: E731
+        found_rows = lambda tk, c, t, rh=None: edges_too(tk, c, t, edges=False)  # noqa: E731
     print("| climate | run [days] | false days per site-year (clean) | false days per "
           "site-year (20 abrupt spells a year) | run days found |")
     print("|---|---|---|---|---|")
     rows = []
     for climate in CLIMATES:
         for days in (0.25, 1, 3, 14, 45):
-            fa, det = run(climate, args.years, args.seeds, days)
-            fs, _ = run(climate, args.years, args.seeds, 0, steps=True)
+            fa, det = run(climate, args.years, args.seeds, days, rh=not args.no_rh)
+            fs, _ = run(climate, args.years, args.seeds, 0, steps=True, rh=not args.no_rh,
+                        spells_keep_rh=args.spells_keep_rh)
             rows.append((climate, days, fa, fs, det))
             print(f"| {climate} | {days} | {fa:.3f} | {fs:.3f} | {det:.2f} |", flush=True)
     return rows

@@ -101,3 +101,70 @@ def test_two_sites_and_gaps_do_not_join_edges():
     t2 = t.copy()
     t2[730:] += np.timedelta64(5, "h")  # a gap inside the run
     assert not fahrenheit_edges(y + ZERO_CELSIUS, np.zeros(len(t), np.int64), t2).any()
+
+
+def _saturation_hpa(c):
+    """Saturation vapour pressure over water [hPa] at `c` [degC] (Magnus formula,
+    WMO-No. 8 (2008) Annex 4.B)."""
+    return 6.112 * np.exp(17.62 * c / (243.12 + c))
+
+
+def _colder_record(seed=0, days=120, mean=-20.0):
+    """As _cold_record at a mean of -20 degC, with a relative humidity [1] of about 0.8
+    whose vapour pressure follows the temperature."""
+    t, x = _cold_record(seed, days)
+    x = x - (-8.0) + mean
+    rng = np.random.default_rng(seed + 100)
+    rh = np.clip(0.8 + rng.normal(0, 0.02, len(x)), 0.0, 0.93)
+    return t, x, rh
+
+
+@pytest.mark.parametrize("start, hours", [(1207, 30), (400, 72), (1500, 60)])
+def test_runs_below_minus_ten_are_found_with_a_steady_humidity(start, hours):
+    """Old code: below -10 degC the degF edge (0.8 T + 32: 16 K at -20 degC) is under
+    the 24 K floor, and the run was read as degC.  The relative humidity, which a unit
+    switch leaves as it was, holds steady across both edges."""
+    t, x, rh = _colder_record()
+    y = x.copy()
+    y[start:start + hours] = _to_f(y[start:start + hours])
+    codes = np.zeros(len(t), np.int64)
+    assert not fahrenheit_edges(y + ZERO_CELSIUS, codes, t).any()   # no humidity: none
+    hit = fahrenheit_edges(y + ZERO_CELSIUS, codes, t, rh)
+    assert hit[start:start + hours].all() and hit.sum() == hours
+
+
+def test_a_natural_spell_of_the_degf_size_changes_the_humidity_and_is_not_masked():
+    """A warm spell that lands on 1.8 x the hour before + 32 (16 K at -20 degC) but
+    brings its warmth at the same vapour pressure: the relative humidity falls to about
+    a quarter (Magnus formula), so the edge is not taken; saturated air (relative
+    humidity near 1 on both sides) is not taken either."""
+    t, x, rh = _colder_record(seed=3)
+    codes = np.zeros(len(t), np.int64)
+    y, r = x.copy(), rh.copy()
+    a, b = 1207, 1237
+    y[a:b] = _to_f(y[a:b])                           # the same temperatures as a slip
+    r[a:b] = rh[a:b] * _saturation_hpa(x[a:b]) / _saturation_hpa(y[a:b])
+    assert r[a] < 0.4
+    assert not fahrenheit_edges(y + ZERO_CELSIUS, codes, t, r).any()
+    sat = np.full(len(t), 0.99)
+    assert not fahrenheit_edges(y + ZERO_CELSIUS, codes, t, sat).any()
+    assert fahrenheit_edges(y + ZERO_CELSIUS, codes, t, rh)[a:b].all()   # the control
+
+
+def test_the_reader_passes_the_humidity_to_the_cold_edges(tmp_path, demo):
+    """Old code: the reader masked no hour of a run at -20 degC."""
+    *_, cat = demo
+    t, x, rh = _colder_record(seed=4, days=90)
+    y = x.copy()
+    y[700:748] = _to_f(y[700:748])
+    stamp = np.datetime_as_string(t, "m")
+    rows = [f"mere,{s},3.0,{v:.1f},{100 * h:.0f},0,0.0,990.0"
+            for s, v, h in zip(stamp, y, rh)]
+    p = tmp_path / "met.csv"
+    p.write_text("site,time,wind_speed [m/s],temperature [degC],relative_humidity [%],"
+                 "solar_radiation [W/m2],precipitation [mm],pressure [hPa]\n"
+                 + "\n".join(rows) + "\n")
+    _, led = read_met(p, cat)
+    tab = led.table
+    hit = tab[tab["reason"].str.contains(REASON, regex=False)]
+    assert sorted(hit["line"].astype(int)) == list(range(702, 750))    # header is line 1

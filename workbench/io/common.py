@@ -195,6 +195,12 @@ UNIT_SPELLINGS = {
     "f": "'degF' (pint reads 'F' as farad)", "degf": "'degF'",
     "kmh": "'km/h'", "kts": "'knot'", "%rh": "'%'", "rh%": "'%'",
     "mm/h": "'mm' (the hour's total)", "mm/hr": "'mm' (the hour's total)",
+    # a degree sign typed another way: a blank after it (pint reads 'C' as coulomb),
+    # the ordinal indicator U+00BA of some keyboards, a lower-case c, the sign alone
+    "°c": "'degC'", "ºc": "'degC' (º is the ordinal indicator, not the degree sign °)",
+    "ºf": "'degF' (º is the ordinal indicator, not the degree sign °)", "°f": "'degF'",
+    "°": "'degC' or 'degF' (a degree sign alone names no scale)",
+    "º": "'degC' or 'degF' (a degree sign alone names no scale)",
 }
 
 

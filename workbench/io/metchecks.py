@@ -368,7 +368,8 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
             else:
                 as_read = np.where(med > KELVIN_MEDIAN_MIN, np.nan, values["temperature"])
                 days = fahrenheit_days(as_read, codes, t)
-                edges = fahrenheit_edges(as_read, codes, t) & ~days
+                edges = fahrenheit_edges(as_read, codes, t,
+                                         values.get("relative_humidity")) & ~days
                 mask("temperature", days,
                      f"temperature looks like degF although the header says {unit or 'degC'}: "
                      "the day's mean stands over 20 K above the median of the 121 days "

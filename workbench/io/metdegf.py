@@ -18,7 +18,8 @@ an hour, a warm spell comes over hours.
 :func:`fahrenheit_edges` finds the runs the daily test cannot judge (a few hours, whose
 day's mean moves little; days below -5 degC) by their two edges: the first hour of the
 run is 1.8 x (the hour before) + 32 and the hour after its last is back to the degC
-reading (see its docstring).
+reading (see its docstring); below -10 degC, where that jump is the size of a natural
+spell, only where the relative humidity holds steady across both edges.
 """
 from __future__ import annotations
 
@@ -73,12 +74,8 @@ def fahrenheit_days(temperature_k, codes, t) -> np.ndarray:
     ndarray of bool
         True on the rows of the days found.
     """
-    x = np.asarray(temperature_k, float) - ZERO_CELSIUS          # degC as read
+    x, order, xs, cs, _, step = _sorted_steps(temperature_k, codes, t, by_hour=False)
     day = np.asarray(t, "datetime64[D]")
-    order = np.lexsort((t, codes))
-    xs, cs = x[order], codes[order]
-    step = np.r_[np.nan, np.diff(xs)]
-    step[np.r_[True, cs[1:] != cs[:-1]]] = np.nan            # no step across sites
     frame = pd.DataFrame({"site": cs, "day": day[order], "x": xs,
                           "rise": step, "drop": -step})
     daily = frame.groupby(["site", "day"]).agg(
@@ -112,6 +109,26 @@ EDGE_TOL = 3.0
 #: 24 K none were, and runs were found as often or more, benchmarks/met_degf.py; our
 #: choice).
 EDGE_JUMP_MIN = 24.0
+#: Smallest rise (and drop) at an edge where the relative humidity holds steady across
+#: it [K] (8 K: the jump of the degF reading at -30 degC (0.8 T + 32); common practice
+#: for the formula, the floor is our choice).  Between -30 and -10 degC the degF jump
+#: (8-24 K) is the size of a natural spell, but a natural rise of 8 K within an hour at
+#: the same vapour pressure lowers the relative humidity by 40 % of its value or more
+#: (the saturation vapour pressure grows about 7 % per K below 0 degC, Magnus formula of
+#: WMO-No. 8 (2008) Annex 4.B), while a unit switch leaves it as it was; see
+#: :data:`RH_STEADY`.
+COLD_JUMP_MIN = 8.0
+#: Largest change of the relative humidity [1] across a cold edge (from the hour before
+#: the rise to the rise, from the hour before the drop to the drop) for it to count as
+#: steady (0.1: ten points; an hour's natural change of relative humidity at a steady
+#: temperature is a few points; our choice, with benchmarks/met_degf.py).
+RH_STEADY = 0.10
+#: Highest relative humidity [1] on either side of a cold edge for its steadiness to
+#: count (0.95: saturated air keeps about 1 across a cooling, by condensation, and
+#: across a warming in rain or fog; an invented warm spell of 25 K whose end cooled
+#: saturated air by 17.5 K with the relative humidity at 0.99-1.01 was masked for 34
+#: days without this bound, benchmarks/met_degf.py; our choice).
+RH_SATURATED = 0.95
 #: Longest run between a rise and its drop judged by the edges [h] (62 days; longer runs
 #: are the daily test's; our choice).
 EDGE_MAX_HOURS = 62 * 24
@@ -130,7 +147,7 @@ EDGE_SPREAD_RATIO = 1.2
 EDGE_SPREAD_HOURS = 48
 
 
-def fahrenheit_edges(temperature_k, codes, t) -> np.ndarray:
+def fahrenheit_edges(temperature_k, codes, t, relative_humidity=None) -> np.ndarray:
     """Rows of runs bounded by a rise to the degF reading of the hour before and a drop
     back to the degC reading of the hour after.
 
@@ -139,13 +156,19 @@ def fahrenheit_edges(temperature_k, codes, t) -> np.ndarray:
     degF reading the hour before held.  :func:`fahrenheit_days` sees such runs only on
     whole days above -5 degC; these edges see them at any length (a few hours up) and at
     any temperature where the degF reading stands :data:`EDGE_JUMP_MIN` above the degC
-    one (-10 degC or warmer).  A run is found when, on consecutive hours of one site:
+    one (-10 degC or warmer), and, with the relative humidity, down to -30 degC where it
+    holds steady across both edges.  A run is found when, on consecutive hours of one
+    site:
 
-    * a rise of at least :data:`EDGE_JUMP_MIN` lands within :data:`EDGE_TOL` of 1.8 x
-      (the hour before, as it is or carried on by its own trend from the hour before
-      it, whichever is nearer) + 32;
+    * a rise of at least :data:`EDGE_JUMP_MIN` (or of :data:`COLD_JUMP_MIN` with the
+      relative humidity changing by :data:`RH_STEADY` at most from the hour before and
+      at most :data:`RH_SATURATED` on both hours)
+      lands within :data:`EDGE_TOL` of 1.8 x (the hour before, as it is or carried on by
+      its own trend from the hour before it, whichever is nearer) + 32;
     * the next such drop (the hour before it within :data:`EDGE_TOL` of 1.8 x the hour
-      after, as it is or carried back by its trend, + 32) follows within :data:`EDGE_MAX_HOURS`, with no other rise between;
+      after, as it is or carried back by its trend, + 32; of the same size, with the
+      same condition on the relative humidity) follows within :data:`EDGE_MAX_HOURS`,
+      with no other rise between;
     * the run's mean read as degF lies within :data:`EDGE_MATCH_K` of the mean of the
       :data:`EDGE_NEIGHBOUR_HOURS` hours before the rise and after the drop;
     * a run of :data:`EDGE_SPREAD_HOURS` or more changes from hour to hour
@@ -160,21 +183,20 @@ def fahrenheit_edges(temperature_k, codes, t) -> np.ndarray:
         Site code of each row.
     t : ndarray of datetime64
         Hour of each row.
+    relative_humidity : ndarray, optional
+        Relative humidity of each row [1] (NaN where missing); without it, only edges of
+        :data:`EDGE_JUMP_MIN` count.
 
     Returns
     -------
     ndarray of bool
         True on the rows of the runs found.
     """
-    x = np.asarray(temperature_k, float) - ZERO_CELSIUS          # degC as read
+    x, order, xs, cs, linked, _ = _sorted_steps(temperature_k, codes, t)
     n = len(x)
     out = np.zeros(n, bool)
     if n < 3:
         return out
-    order = np.lexsort((t, codes))
-    xs, cs = x[order], np.asarray(codes)[order]
-    ts = np.asarray(t, "datetime64[h]")[order].astype(np.int64)
-    linked = np.r_[False, (cs[1:] == cs[:-1]) & (ts[1:] - ts[:-1] == 1)]   # hour i-1 -> i
     prev = np.r_[np.nan, xs[:-1]]
     # the degC hour next to an edge carried on by one hour (its trend from the hour
     # beyond; the diurnal cycle is smooth), where that hour is linked too
@@ -190,8 +212,18 @@ def fahrenheit_edges(temperature_k, codes, t) -> np.ndarray:
                            np.abs(xs - convert_plain(on_rise, "degC", "degF")))
         off_drop = np.fmin(np.abs(prev - convert_plain(xs, "degC", "degF")),
                            np.abs(prev - convert_plain(on_drop, "degC", "degF")))
-        rise = linked & (xs - prev >= EDGE_JUMP_MIN) & (off_rise <= EDGE_TOL)
-        drop = linked & (prev - xs >= EDGE_JUMP_MIN) & (off_drop <= EDGE_TOL)
+        if relative_humidity is None:
+            steady = np.zeros(n, bool)
+        else:
+            rh = np.asarray(relative_humidity, float)[order]
+            rh_prev = np.r_[np.nan, rh[:-1]]
+            # near saturation the relative humidity stays pinned whatever the
+            # temperature does (fog, condensation on cooling): no evidence there
+            steady = (linked & (np.abs(rh - rh_prev) <= RH_STEADY)
+                      & (np.fmax(rh, rh_prev) <= RH_SATURATED))
+        big = np.where(steady, COLD_JUMP_MIN, EDGE_JUMP_MIN)
+        rise = linked & (xs - prev >= big) & (off_rise <= EDGE_TOL)
+        drop = linked & (prev - xs >= big) & (off_drop <= EDGE_TOL)
     r_idx, d_idx = np.flatnonzero(rise), np.flatnonzero(drop)
     if not len(r_idx) or not len(d_idx):
         return out
@@ -259,3 +291,50 @@ def _edged(daily, bad) -> np.ndarray:
         last_edge = end & ((drop >= JUMP_MIN) | (drop_after >= JUMP_MIN))
     ok_blocks = np.unique(block[bad & (first_edge | last_edge)])
     return np.isin(block, ok_blocks) & bad
+
+
+def _sorted_steps(temperature_k, codes, t, by_hour=True):
+    """The shared start of the degF checks: the record sorted by site and hour.
+
+    Parameters
+    ----------
+    temperature_k : ndarray
+        Temperature as read from a degC header [K] (NaN where missing).
+    codes : ndarray of int
+        Site code of each row.
+    t : ndarray of datetime64
+        Hour of each row.
+    by_hour : bool
+        Whether a step needs the next row to be the next hour (True; the edges) or only
+        the same site (False; the daily test's largest rise and drop of a day).
+
+    Returns
+    -------
+    x : ndarray
+        degC as read, in the rows' order [degC].
+    order : ndarray of int
+        The rows sorted by site, then hour.
+    xs, cs : ndarray
+        `x` and `codes` in that order [degC, -].
+    linked : ndarray of bool
+        Row i of the sorted record follows row i - 1 (same site; and, with `by_hour`,
+        the next hour).
+    step : ndarray
+        ``xs[i] - xs[i - 1]`` where linked, NaN elsewhere [K].
+
+    >>> t = np.array(["2020-01-01T02", "2020-01-01T01", "2020-01-01T05"], "datetime64[h]")
+    >>> _, order, xs, _, linked, step = _sorted_steps(np.array([3.0, 1.0, 9.0]) + ZERO_CELSIUS,
+    ...                                               np.zeros(3, int), t)
+    >>> order.tolist(), linked.tolist(), np.round(step, 6).tolist()
+    ([1, 0, 2], [False, True, False], [nan, 2.0, nan])
+    """
+    x = np.asarray(temperature_k, float) - ZERO_CELSIUS          # degC as read
+    codes = np.asarray(codes)
+    order = np.lexsort((t, codes))
+    xs, cs = x[order], codes[order]
+    linked = np.r_[False, cs[1:] == cs[:-1]]                    # no step across sites
+    if by_hour:
+        ts = np.asarray(t, "datetime64[h]")[order].astype(np.int64)
+        linked &= np.r_[False, ts[1:] - ts[:-1] == 1]            # hour i-1 -> i
+    step = np.where(linked, np.r_[np.nan, np.diff(xs)], np.nan)
+    return x, order, xs, cs, linked, step

@@ -70,7 +70,17 @@ def _species_columns(tab: RawTable, allowed, what):
     return out
 
 
-def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero_ok=None):
+#: Most negative concentration of an ion in precipitation kept as a blank-subtraction
+#: result (censored as below detection) [mg/L of the ion] (0.5: ten times or more the
+#: detection limits of the major ions by ion chromatography, about 0.01-0.05 mg/L, from
+#: memory; our choice).  A larger negative value is no blank residue (a sign typed, a
+#: cell of another column): it is masked with its reason, never read as below detection,
+#: which the "zero" treatment of censored values would make a complete-looking 0.
+PRECIP_NEGATIVE_TOL_MG_L = 0.5
+
+
+def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero_ok=None,
+                    negative_tol_mg_l=None):
     """Parse species columns into amounts, with censoring. Returns dict of arrays.
 
     A missing-value code typed as a value (``-999``, ``9999``...) is masked and flagged;
@@ -79,7 +89,8 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero
     exactly 0 is never a measurement (every species here is present at some level): it
     is censored as below detection, as a negative one, with a reason naming it, except
     on the rows of `zero_ok` (bool [n]: the dry weeks of a precipitation file, and rows
-    dropped as exact repeats).
+    dropped as exact repeats).  With `negative_tol_mg_l` (precipitation) a value below
+    minus that many mg/L of the species is masked with its reason.
     """
     data = {}
     for sp, name in cols.items():
@@ -102,6 +113,13 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero
                                              unit=unit)
             masked = masked | bad
             ledger_parts.append(why)
+        if negative_tol_mg_l is not None:
+            with np.errstate(invalid="ignore"):    # mol m-3 x kg mol-1 = kg m-3 = 1e3 mg/L
+                deep = (~cens & ~masked
+                        & (amount * _species.get(sp).molar_mass * 1e3 < -negative_tol_mg_l))
+            ledger_parts.append(np.where(deep, f"{sp} negative beyond the blank tolerance "
+                                         f"-{negative_tol_mg_l:g} mg/L (masked)", ""))
+            masked = masked | deep
         amount = np.where(masked, np.nan, amount)
         neg = (~cens) & (amount < 0)
         zero = (~cens) & (amount == 0)
@@ -349,7 +367,8 @@ def read_precipitation(path, catalogue, flag_map=None):
     parts.append(np.where(flag_norm != "", "flags " + flag_norm.astype(str), ""))
     ion_cols = _species_columns(tab, _species.PRECIP_IONS, "precipitation")
     conc = _concentrations(tab, ion_cols, ("amount_density",), parts, n,
-                           zero_ok=(gauge == 0) | repeat)      # a dry week, a dropped repeat
+                           zero_ok=(gauge == 0) | repeat,      # a dry week, a dropped repeat
+                           negative_tol_mg_l=PRECIP_NEGATIVE_TOL_MG_L)
     check_shifted(tab, {ion_cols[sp]: ~np.isnan(v) | c for sp, (v, c, _, _) in conc.items()},
                   rows=~repeat)
     parts.append(np.where(np.isnan(gauge), "gauge depth missing", ""))

@@ -13,6 +13,10 @@ slip.  The values are not changed: the note is a hint for the analyst.
 The checks are those of :func:`workbench.wet.screen` with its options (ion balance
 tiers, detection-limit treatment, bicarbonate; capture ranges of unknown precipitation
 type, as the reader does not know the type), run on the samples as read.
+
+A few weeks of a depth in another length unit fail far under half of a site's samples;
+:func:`_depth_run_notes` names a run of :data:`RUN_MIN` or more consecutive samples
+that one other length unit brings back into the capture band.
 """
 from __future__ import annotations
 
@@ -35,6 +39,9 @@ SHARE = 0.5
 CONCENTRATION_UNITS = ("mg/L", "umol/L", "ueq/L")
 #: Units of a depth column that are tried in place of the header's.
 DEPTH_UNITS = ("mm", "cm", "inch")     # inch: a gauge read in inches (additive, io slips)
+#: Fewest consecutive samples of a site (in time order, samples not evaluated skipped)
+#: that a depth unit mends for a note on a run of them [-] (three weeks; our choice).
+RUN_MIN = 3
 
 
 def _factor(unit: str, other: str, species: str | None, basis=None) -> float:
@@ -169,6 +176,7 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
         ratio = qa.capture_ratio(sample, gauge, options.capture_min_depth)
         ok = np.isfinite(ratio)
         high, low = qa.exceeds(ratio, hi), qa.falls_short(ratio, lo)   # as the screening
+        noted = set()
         for site in _suspects(sites, ok, high, low):
             at = sites == site
             n_eval = int((ok & at).sum())
@@ -197,10 +205,72 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
                             best = (mended, col, header, unit, other)
                 if best is not None:
                     mended, col, header, unit, other = best
+                    noted.add(site)
                     notes.append(f"{file_name}: {col.replace('_', ' ')} at {site}: {k_all} of "
                                  f"{n_eval} samples fail the capture check, "
                                  f"{'all' if k_all == k else k} with the "
                                  f"capture ratio {side}; the values look like {other} under a "
                                  f"{unit} header ({header!r}; read as {other}, {mended} of the "
                                  f"{k} pass)")
+        notes += _depth_run_notes(samples, units, file_name, sample, gauge, ratio, ok,
+                                  high, low, noted, options)
     return notes
+
+
+def _depth_run_notes(samples, units, file_name, sample, gauge, ratio, ok, high, low,
+                     noted, options) -> list[str]:
+    """Notes on a run of :data:`RUN_MIN` or more consecutive samples of a site (in time
+    order; samples the capture check does not evaluate are skipped) that fail the
+    capture check in one direction and pass it with one depth column read in another
+    length unit: a few weeks of a gauge read in inches among weeks in mm, which no
+    site-wide share shows.  Only units whose factor lies outside the width of the
+    capture band (hi / lo) are tried: a smaller factor (cm <-> inch, 2.54, in the band
+    (0.5, 1.2), 2.4 wide) cannot be told from the scatter of the ratio.  Sites with a
+    site-wide note (`noted`) are left out; the values are not changed."""
+    lo, hi = options.capture_unknown
+    sites = samples["site"].values.astype(str)
+    lines = samples["line"].values if "line" in samples else np.arange(len(sites)) + 1
+    start = samples["start"].values if "start" in samples else np.arange(len(sites))
+    order = np.lexsort((start, sites))
+    ev = order[ok[order]]                        # evaluated samples, by site and time
+    if len(ev) < RUN_MIN:
+        return []
+    out, used = [], set()
+    for col in ("gauge_depth", "sample_depth"):
+        if col not in units:
+            continue
+        header, unit, _ = units[col]
+        for other in DEPTH_UNITS:
+            f = _factor(unit, other, None)
+            if _same_unit(f) or max(f, 1 / f) <= hi / lo:
+                continue
+            if col == "gauge_depth":
+                r2 = qa.capture_ratio(sample, gauge * f, options.capture_min_depth)
+            else:
+                r2 = qa.capture_ratio(sample * f, gauge, options.capture_min_depth)
+            mends = qa.at_least(r2, lo) & qa.at_most(r2, hi)
+            for failing, side in ((high, "high"), (low, "low")):
+                hit = (failing & mends)[ev]
+                s_ev = sites[ev]
+                new = hit & ~np.r_[False, hit[:-1] & (s_ev[1:] == s_ev[:-1])]
+                run_id = np.cumsum(new)
+                size = np.bincount(run_id[hit], minlength=run_id.max() + 1)
+                for r in np.flatnonzero(size >= RUN_MIN):
+                    idx = ev[hit & (run_id == r)]
+                    site = sites[idx[0]]
+                    if site in noted or (site, int(idx[0])) in used:
+                        continue
+                    used.add((site, int(idx[0])))
+                    ln = np.sort(lines[idx])
+                    t0, t1 = (str(np.datetime_as_string(start[idx].min(), "D")),
+                              str(np.datetime_as_string(start[idx].max(), "D")))
+                    value = float(samples[col].values[idx[0]])
+                    out.append(f"{file_name}: {col.replace('_', ' ')} at {site}: lines "
+                               f"{ln[0]}-{ln[-1]} ({len(idx)} consecutive samples the "
+                               f"check evaluates, {t0} to {t1}) fail the capture check with "
+                               f"the capture ratio {side} (e.g. line {lines[idx[0]]}, read as "
+                               f"{value:g} mm, ratio "
+                               f"{ratio[idx[0]]:.3g}, expected {lo:g} to {hi:g}); read as "
+                               f"{other} they all pass: the values look like {other} under a "
+                               f"{unit} header ({header!r}; values not changed)")
+    return out
