@@ -8,6 +8,8 @@ time chunk of the whole plane at a time, and appends each block's part of it to 
 scratch file laid out block by block, (time, cell) within a block; the blocks then read
 their values from there with one contiguous read.  So each chunk is decompressed once
 and memory holds one time chunk of one variable (plus a block), never the field.
+With a dask client the copy of each variable is a task on the cluster (one variable
+after the other), so the process that runs the grid decompresses no chunk itself.
 
 When a variable's chunks already fall inside the blocks (chunks along y and x that the
 blocks' edges follow, e.g. ``{"y": 10, "x": 10}`` with ``--block 10`` or 20), or when
