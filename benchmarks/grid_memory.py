@@ -13,7 +13,9 @@ and as NetCDF3 (classic, as the demo writes it).  A measurement, not a test.
 
 Each measurement runs in a fresh process (`--child`).  ``--what read``: `read_block` of
 the first block alone; ``block``: `block_result` of the first block; ``copy``: the
-block-major scratch copy of the time-chunked met alone (`grid.staged`); ``grid``: every
+block-major scratch copy of the time-chunked met alone (`grid.staged`, in this process);
+``copy-dask``: the copy alone with a local cluster of 2 workers (on the workers where
+`grid.staged` takes the client, in this process in the code before); ``grid``: every
 block in process (`compute_grid`); ``dask``: every block as a dask task on a local cluster
 of 2 single-threaded worker processes (as ``workbench grid --workers 2``), each worker's
 idle resident set before the blocks and its peak (VmHWM) after them, and the most block
@@ -91,8 +93,8 @@ def child(folder: Path, what: str, trace: bool, block: int):
     elif what == "copy":                 # the block-major scratch copy alone
         with g.staged(grid, block):
             pass
-    elif what == "dask":
-        workers = _on_dask(grid, args, block, out_workers := {})
+    elif what in ("dask", "copy-dask"):
+        workers = _on_dask(grid, args, block, out_workers := {}, what == "copy-dask")
     else:
         g.compute_grid(grid, *args, block=block,
                        progress=lambda _: after.append(round(_status("VmRSS"))))
@@ -106,7 +108,7 @@ def child(folder: Path, what: str, trace: bool, block: int):
         out["traced_peak_mb"] = round(tracemalloc.get_traced_memory()[1] / 1e6)
     if after:
         out["rss_after_blocks_mb"] = after
-    if what == "dask":
+    if what in ("dask", "copy-dask"):
         out.update(workers=workers, **out_workers)
     print(json.dumps(out))
 
@@ -117,12 +119,14 @@ def _worker_status():
             "rss_mb": round(_status("VmRSS"))}
 
 
-def _on_dask(grid, args, block, out: dict) -> int:
+def _on_dask(grid, args, block, out: dict, copy_only=False) -> int:
     """Every block as a dask task on a local cluster of 2 single-threaded worker
     processes (:func:`workbench.blocks.start_client`, as ``workbench grid --workers
     2``); `out` gets each worker's resident set when idle before the blocks
     (``worker_base_mb``), its peak (VmHWM) after them (``worker_peak_mb``), the
-    difference, the tasks' count per worker and the blocks."""
+    difference, the tasks' count per worker and the blocks.  `copy_only`: the scratch
+    copy alone (on the workers where `grid.staged` takes a client), no blocks."""
+    import inspect
     from workbench import grid as g
     from workbench.blocks import close_client, start_client
     client = start_client(2)
@@ -131,8 +135,11 @@ def _on_dask(grid, args, block, out: dict) -> int:
         client.run(_warm)            # imports and one tiny engine call before the base line
         base = client.run(_worker_status)
         client.register_plugin(HeldResults())
-        with g.staged(grid, block) as staged:
-            if hasattr(g, "store_grid"):          # each block into grid.nc as it ends
+        on = {"client": client} if "client" in inspect.signature(g.staged).parameters else {}
+        with g.staged(grid, block, **on) as staged:
+            if copy_only:
+                pass
+            elif hasattr(g, "store_grid"):          # each block into grid.nc as it ends
                 import tempfile
                 import numpy as np
                 from workbench.grid_output import create_grid_netcdf, grid_dataset
@@ -208,7 +215,7 @@ def main(argv=None) -> int:
     p.add_argument("--n", type=int, action="append", help="cells a side (repeatable)")
     p.add_argument("--months", type=int, default=3)
     p.add_argument("--layout", choices=("nc4", "nc3"), default="nc4")
-    p.add_argument("--what", choices=("read", "block", "copy", "grid", "dask"),
+    p.add_argument("--what", choices=("read", "block", "copy", "copy-dask", "grid", "dask"),
                    default="block")
     p.add_argument("--block", type=int, default=0, help="cells a block side (0: the default)")
     p.add_argument("--trace", action="store_true")

@@ -12,6 +12,7 @@ with the grid by much less than the added input values (as the met zarr tests do
 from __future__ import annotations
 
 import errno
+import json
 import importlib.util
 import re
 import tracemalloc
@@ -346,3 +347,62 @@ def test_worker_processes_read_the_copy(grids, tmp_path):
     assert sorted(p.name for p in tmp_path.iterdir()) == ["nc3", "zarr"]
     assert sorted(p.name for p in (tmp_path / "zarr").iterdir()) == \
         ["grid.nc", "provenance.json"]
+
+
+def _one_chunk_nc4(base: Path, n: int) -> tuple[Path, Path, int]:
+    """The demo grid of n x n cells (a month) as NetCDF3 and with its met as NetCDF4 in
+    one zlib chunk a variable: the two scenarios and the bytes of a chunk."""
+    sc = make_demo_grid(base / "nc3", n=n)
+    (base / "nc4").mkdir()
+    text = sc.read_text()
+    with xr.open_dataset(base / "nc3" / "met.nc") as ds:
+        ds = ds.load()
+    enc = {v: {"zlib": True, "complevel": 1, "chunksizes": ds[v].shape}     # one chunk
+           for v in ds.data_vars if ds[v].ndim == 3 and ds[v].dims[0] == "time"}
+    ds.to_netcdf(base / "nc4" / "met4.nc", engine="netcdf4", format="NETCDF4", encoding=enc)
+    for role in ("air", "land_use"):
+        (base / "nc4" / f"{role}4.nc").write_bytes((base / "nc3" / f"{role}.nc").read_bytes())
+        text = text.replace(f'"{role}.nc"', f'"{role}4.nc"')
+    (base / "nc4" / "scenario.toml").write_text(text.replace('"met.nc"', '"met4.nc"'))
+    return sc, base / "nc4" / "scenario.toml", max(ds[v].nbytes for v in enc)
+
+
+def test_on_workers_the_main_process_decompresses_no_chunk(tmp_path):
+    """`workbench grid` on a dask cluster with met in NetCDF4 chunked along time over the
+    whole plane (here a month of 48 x 48 cells in one chunk: 6.9 MB a variable, float32).
+    The block-major copy ran in the main process, which so decompressed and decoded
+    every chunk: its peak of traced allocations was at least one chunk (the values
+    read) and grew with the plane (docs/performance.md: 8, 96 and 231 MB above base at
+    20 x 20, 100 x 100 and 200 x 200 cells).  Now each variable's copy is a task on the
+    cluster: the main process's traced peak during a whole run stays under one chunk
+    (about 3 MB here, at any grid size: the hashing of the inputs in 1 MiB reads and
+    the cluster's messages), and the maps are those of the NetCDF3 grid, bit for bit."""
+    pytest.importorskip("distributed")
+    pytest.importorskip("netCDF4")
+    from workbench.blocks import close_client, start_client
+    ref, sc, chunk = _one_chunk_nc4(tmp_path / "big", 48)
+    assert chunk > 6e6
+    _, warm, _ = _one_chunk_nc4(tmp_path / "small", 8)
+    client = start_client(2)
+    try:
+        address = client.scheduler.address
+        run_grid(ref, tmp_path / "ref", quiet=True, block=24, use_dask=False)
+        # a small run on the cluster first: the imports of a run are done before the count
+        run_grid(warm, tmp_path / "warm", quiet=True, block=4, scheduler=address)
+        tracemalloc.start()
+        try:
+            run_grid(sc, tmp_path / "out", quiet=True, block=24, scheduler=address)
+            _, peak = tracemalloc.get_traced_memory()
+        finally:
+            tracemalloc.stop()
+    finally:
+        close_client(client)
+    assert peak < chunk, (peak / 2**20, chunk / 2**20)
+    notes = json.loads((tmp_path / "out" / "provenance.json").read_text())["notes"]
+    assert any("met4.nc: chunks of 744 time steps x 48 x 48 cells span several blocks"
+               in note and "copied chunk by chunk" in note for note in notes), notes
+    maps = {}
+    for kind in ("ref", "out"):
+        with xr.open_dataset(tmp_path / kind / "grid.nc", decode_times=False) as ds:
+            maps[kind] = ds.load().drop_attrs()
+    xr.testing.assert_identical(maps["out"], maps["ref"])

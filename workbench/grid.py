@@ -340,7 +340,7 @@ def blocks(shape, block) -> list:
              for i in range(0, nx, bx)] for j in range(0, ny, by)]
 
 
-def staged(grid: Grid, block=None, folder=None, say=None):
+def staged(grid: Grid, block=None, folder=None, say=None, client=None):
     """``with staged(grid, block) as g:`` the grid whose inputs chunked across the
     blocks are read from a block-major scratch copy (each chunk decompressed once;
     :func:`workbench.grid_scratch.block_major`), removed when the ``with`` ends.
@@ -355,9 +355,13 @@ def staged(grid: Grid, block=None, folder=None, say=None):
         Where the scratch folder is made (default: the system's temporary folder).
     say : callable, optional
         Called with each note on the chunks.
+    client : distributed.Client, optional
+        Make the copy in tasks on this cluster (a variable a task), so that this
+        process never decompresses a chunk of the inputs (`folder` must be seen by the
+        workers, as the blocks' reads of the copy need anyway).
     """
     block = default_block(len(grid.times)) if block is None else block
-    return block_major(grid, blocks(grid.shape, block), folder, say)
+    return block_major(grid, blocks(grid.shape, block), folder, say, client=client)
 
 
 def compute_grid(grid: Grid, dry_options, budget_options, periods, fixed_velocity=None,

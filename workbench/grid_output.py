@@ -466,8 +466,9 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
         periods = make_periods(grid, p["resolution"], p["start"], p["end"])
         o = sc.options
         # inputs chunked across the blocks: a block-major scratch copy inside the
-        # (incomplete) run folder, removed before the folder is committed
-        with staged(grid, block, folder.path, say) as grid:
+        # (incomplete) run folder, removed before the folder is committed; with a
+        # cluster the copy runs on its workers (no chunk decompressed in this process)
+        with staged(grid, block, folder.path, say, client=client) as grid:
             names = output_names(grid.species)
             where = ""
             if client is not None:             # the tasks run on the cluster

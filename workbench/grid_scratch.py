@@ -8,6 +8,8 @@ time chunk of the whole plane at a time, and appends each block's part of it to 
 scratch file laid out block by block, (time, cell) within a block; the blocks then read
 their values from there with one contiguous read.  So each chunk is decompressed once
 and memory holds one time chunk of one variable (plus a block), never the field.
+With a dask client the copy of each variable is a task on the cluster (one variable
+after the other), so the process that runs the grid decompresses no chunk itself.
 
 When a variable's chunks already fall inside the blocks (chunks along y and x that the
 blocks' edges follow, e.g. ``{"y": 10, "x": 10}`` with ``--block 10`` or 20), or when
@@ -206,6 +208,17 @@ def _copy_variable(raw, name, dims, layout, n_t, step, path, file):
     return str(file), dt.str
 
 
+def _copy_one(path, role, name, dims, layout, n_t, file):
+    """Copy variable `name` of the input at `path` into `file`, its time chunks one at a
+    time (in this process or as a task on a dask worker: it opens the input itself)."""
+    # the file opened anew for each variable: the HDF5 chunk cache of a variable (up to
+    # 64 MB by default, useless here: each chunk is read once) is freed with it, so the
+    # copy holds one variable's, not all
+    with _no_chunk_cache(path), _open(path, role) as raw:
+        step = chunk_shape(raw[name], dims)[0]
+        return _copy_variable(raw, name, dims, layout, n_t, step, path, file)
+
+
 @contextlib.contextmanager
 def _no_chunk_cache(path):
     """``with _no_chunk_cache(path):`` NetCDF4 files opened inside keep no chunk cache
@@ -238,7 +251,7 @@ def _disk_error(exc, file, nbytes) -> OutputError:
 
 
 @contextlib.contextmanager
-def block_major(grid, layout, folder=None, say=None):
+def block_major(grid, layout, folder=None, say=None, client=None):
     """The grid with a block-major scratch copy of its time-chunked inputs.
 
     Parameters
@@ -251,6 +264,11 @@ def block_major(grid, layout, folder=None, say=None):
         Where the scratch folder is made (default: the system's temporary folder).
     say : callable, optional
         Called with each note.
+    client : distributed.Client, optional
+        Copy each variable in a task on this cluster, one variable after the other
+        (its workers must see `folder`, as the blocks' reads of the copy need anyway):
+        the time chunks of the whole plane are then decompressed on a worker, and this
+        process holds none of the input's values.  Without, the copy runs here.
 
     Yields
     ------
@@ -282,17 +300,27 @@ def block_major(grid, layout, folder=None, say=None):
                     made = Path(tempfile.mkdtemp(prefix="workbench-gridcopy-", dir=folder))
                 n_t = raw.sizes["time"]
             files = {}
-            for name in copy:
-                # the file opened anew for each variable: the HDF5 chunk cache of a
-                # variable (up to 64 MB by default, useless here: each chunk is read
-                # once) is freed with it, so the copy holds one variable's, not all
-                with _no_chunk_cache(path), _open(path, role) as raw:
-                    step = chunk_shape(raw[name], grid.dims)[0]
-                    files[name] = _copy_variable(raw, name, grid.dims, flat, n_t, step, path,
-                                                 made / f"{role}.{name}.bin")
-                scratch[role] = Scratch(str(made), n_t, {(ys.start, ys.stop, xs.start,
-                                                          xs.stop): f for ys, xs, f in flat},
-                                        files)
+            jobs = [(name, made / f"{role}.{name}.bin") for name in copy]
+            if client is None:
+                for name, file in jobs:
+                    files[name] = _copy_one(path, role, name, grid.dims, flat, n_t, file)
+            else:
+                # each variable's copy a task on the cluster, one at a time: a time chunk
+                # of the whole plane is decompressed on a worker, never in this process,
+                # and by one process at a time, as before (HDF5's buffer and the values
+                # read: about two chunks; a copy on every worker at once would hold that
+                # on each)
+                for name, file in jobs:
+                    fut = client.submit(_copy_one, path, role, name, grid.dims, flat, n_t,
+                                        file, pure=False)
+                    try:
+                        files[name] = fut.result()   # a failed copy raises its error here
+                    finally:
+                        fut.release()
+                        del fut
+            scratch[role] = Scratch(str(made), n_t, {(ys.start, ys.stop, xs.start,
+                                                      xs.stop): f for ys, xs, f in flat},
+                                    files)
         yield dataclasses.replace(grid, scratch={**grid.scratch, **scratch},
                                   notes=grid.notes + notes) if (scratch or notes) else grid
     finally:
