@@ -172,6 +172,8 @@ def draws_in_force(options) -> str:
             f"vd_site_gsd = {getattr(options, 'vd_site_gsd', 1.0):g}, "
             f"lab_bias_filter_pack = {str(getattr(options, 'lab_bias_filter_pack', False)).lower()}, "
             f"bulk_factor_rel_sd = {getattr(options, 'bulk_factor_rel_sd', 0.0):g}, "
+            f"bulk_factor_ion_correlation = "
+            f"{getattr(options, 'bulk_factor_ion_correlation', 1.0):g}, "
             f"gauge_catch_rel_sd = {options.gauge_catch_rel_sd:g} per gauge period "
             f"({options.draws} draws, seed {options.seed}).")
 
