@@ -637,9 +637,10 @@ def shown_text(frame: pd.DataFrame, site, receptor, period) -> str:
             f"{n_cells} (site, receptor, period) cells of sensitivity.csv and tornado.csv, "
             "which hold them all ([sensitivity] sites and receptors pick others). "
             + ("An S1 below 0 (here down to "
-               f"{float(frame['S1'].min()):.2g}), or above its ST, is the sampling error of "
-               "the estimate, within its 95 % interval (S1_conf): more [sensitivity] "
-               "samples narrow it." if neg else ""))
+               f"{float(frame['S1'].min()):.2g}), or above its ST, is sampling error of the "
+               "estimate (S1_conf and ST_conf give the 95 % intervals): read it as about "
+               "0, or as equal to ST; more [sensitivity] samples narrow it." if neg
+               else ""))
 
 
 def _pick_any(frame, site, receptor, period, element, quantity) -> bool:
