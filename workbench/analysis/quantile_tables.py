@@ -238,9 +238,10 @@ def report_text(options=None) -> str:
              "gauge stood; a declared gauge change starts a new one)" if shared else
              "gauge catch (systematic: one per gauge of a site and calendar year)")
     lab = ("a laboratory's calibration bias (systematic: one per ion or species and "
-           "laboratory period of a site, shared by every sample it analysed; a laboratory "
-           "the site catalogue names is one draw per analysed ion for every site, and for "
-           "the air and the precipitation, naming it"
+           "laboratory period of a site, shared by every sample it analysed; air and "
+           "precipitation laboratories apart; a laboratory the site catalogue names is one "
+           "draw per analysed ion for every site, and for the air and the precipitation, "
+           "naming it"
            + ("; a filter pack's gas filter shares its particle filter's draw, SO2 with "
               "pSO4, HNO3 with pNO3, NH3 with pNH4" if pack else "")
            + "; a declared laboratory change starts a new one)")
