@@ -508,8 +508,10 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                 comp_note[..., j])
         # weeks whose pNa was below detection: their sea salt from the substitute, said
         # (not flagged: a value below detection is a measurement, as for every species)
-        if "pSO4_na_censored" in dr.variables:
-            words = np.asarray(dr.variables["pSO4_na_censored"].values, object)
+        for var in ("pSO4_nss_censored", "pSO4_na_censored"):
+            if var not in dr.variables:
+                continue
+            words = np.asarray(dr.variables[var].values, object)
             said = np.array([isinstance(x, str) and x != "" for x in words.ravel()],
                             bool).reshape(words.shape)[:, None, :] & np.ones((1, n_r, 1), bool)
             said &= (status[..., j] != "missing") & ~np.char.startswith(

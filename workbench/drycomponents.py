@@ -121,6 +121,18 @@ def _nss_particles(air: xr.Dataset, basis: str, censored: str = "half") -> xr.Da
     is known, as :func:`workbench.dryflux._censored_values`); such rows are marked in
     ``pSO4_na_censored`` (its ``substitute`` attribute names the rule) for the note.
     Before, a pNa below detection entered as 0 (total pSO4), without a word.
+
+    A pSO4 below its detection limit L beside a pNa (measured, or below detection and
+    substituted as above) is the one place where the sea salt comes off a censored
+    value: the total lies between the sea-salt sulfate S = 0.0605 pNa (Keene et al.
+    1986, :func:`workbench.wet.seasalt.seawater_ratio`) and L, so the non-sea-salt
+    part lies between 0 and max(0, L - S), the detection limit of the non-sea-salt
+    part, which replaces L in ``pSO4_detection_limit``.  The row stays censored and
+    takes the `censored` substitute of that limit (half of it by default: (L - S) / 2;
+    the limit; 0), 0 where the sea salt reaches L; the rows are marked in
+    ``pSO4_nss_censored`` for the note.  Before, such a row entered with the
+    substitute of L itself, sea salt included (the censored total for its non-sea-salt
+    part).
     """
     if basis != "nss" or "pSO4" not in air:
         return air
@@ -137,12 +149,24 @@ def _nss_particles(air: xr.Dataset, basis: str, censored: str = "half") -> xr.Da
     na_cens = (air["pNa_censored"].values.astype(bool) if "pNa_censored" in air
                else np.zeros(na.shape, bool))
     na_used, _ = _censored_values(air, "pNa", censored)
-    nss = non_seasalt(so4, np.where(np.isfinite(na_used), na_used, 0.0), "SO4", "Na")
+    na_zero = np.where(np.isfinite(na_used), na_used, 0.0)
+    nss = non_seasalt(so4, na_zero, "SO4", "Na")
     air["pSO4"] = air["pSO4"].copy(data=np.where(np.isfinite(so4), nss, np.nan))
     air["pSO4"].attrs["long_name"] = "particulate non-sea-salt sulfate (Keene et al. 1986)"
     air["pSO4_total_used"] = (air["pSO4"].dims, has_so4 & ~np.isfinite(na) & ~na_cens)
     air["pSO4_na_censored"] = (air["pSO4"].dims, has_so4 & na_cens,
                                {"substitute": CENSORED_WORDS.get(censored, str(censored))})
+    # a pSO4 below detection beside a pNa: the non-sea-salt part's own limit
+    so4_cens = (air["pSO4_censored"].values.astype(bool) if "pSO4_censored" in air
+                else np.zeros(so4.shape, bool))
+    nss_cens = so4_cens & ~np.isfinite(so4) & (np.isfinite(na) | na_cens)
+    if "pSO4_detection_limit" in air:
+        dl = air["pSO4_detection_limit"].values.astype(float)
+        nss_dl = np.maximum(non_seasalt(dl, na_zero, "SO4", "Na"), 0.0)
+        air["pSO4_detection_limit"] = air["pSO4_detection_limit"].copy(
+            data=np.where(nss_cens & np.isfinite(dl), nss_dl, dl))
+    air["pSO4_nss_censored"] = (air["pSO4"].dims, nss_cens,
+                                {"substitute": CENSORED_WORDS.get(censored, str(censored))})
     return air
 
 
@@ -192,6 +216,38 @@ def censored_na_notes(rows: dict, periods, sites) -> np.ndarray:
                        f"{', '.join(names)}): their sea-salt sulfate from {sub} "
                        "(air_censored), drawn with the spread of a value between 0 and the "
                        "limit in the Monte Carlo")
+    return out
+
+
+def censored_nss_notes(rows: dict, periods, sites) -> np.ndarray:
+    """Words per (site, period) naming the pSO4 samples below detection whose
+    non-sea-salt part was formed from the limit less their sea-salt sulfate
+    (``pSO4_nss_censored`` of :func:`_nss_particles`); "" elsewhere.
+
+    Parameters
+    ----------
+    rows : dict
+        Output of :func:`dry_rows` (``rows["pSO4_nss_censored"]``: bool per pSO4 row;
+        ``rows["pSO4_na_substitute"]``: the words of the substitute).
+    periods : pandas.DataFrame
+    sites : sequence of str
+    """
+    n_s, n_p = len(sites), len(periods)
+    out = np.full((n_s, n_p), "", dtype=object)
+    flag = rows.get("pSO4_nss_censored")
+    r = rows["species"].get("pSO4")
+    if flag is None or r is None or not np.any(flag):
+        return out
+    agg, each = _rows_by_cell(np.asarray(flag, bool), r, periods, n_p)
+    si = np.asarray(r["site_index"])
+    sub = rows.get("pSO4_na_substitute") or CENSORED_WORDS["half"]
+    for cell, names in agg.items():          # one entry per (site, period) cell named
+        s_, p_ = divmod(int(cell), n_p)
+        n_all = int((each[:, p_] & (si == s_)).sum())
+        out[s_, p_] = (f"pSO4 below detection in {len(names)} of {n_all} pSO4 samples (from "
+                       f"{', '.join(names)}): their non-sea-salt pSO4 from {sub} "
+                       "(air_censored) of the limit less the sea-salt sulfate of their pNa "
+                       "(0 where the sea salt reaches the limit)")
     return out
 
 
@@ -436,6 +492,9 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
         return np.isfinite(air_v[sp].values) | cens
     if "pSO4" in out["species"] and "pSO4_total_used" in air_v:
         out["pSO4_total_used"] = air_v["pSO4_total_used"].values[out["species"]["pSO4"]["air_row"]]
+    if "pSO4" in out["species"] and "pSO4_nss_censored" in air_v:
+        out["pSO4_nss_censored"] = air_v["pSO4_nss_censored"].values[
+            out["species"]["pSO4"]["air_row"]]
     if "pSO4" in out["species"] and "pSO4_na_censored" in air_v:
         out["pSO4_na_censored"] = air_v["pSO4_na_censored"].values[
             out["species"]["pSO4"]["air_row"]]
@@ -712,6 +771,9 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
          "pSO4_total_used": (("site", "period"), total_used_notes(rows, periods, sites),
                              {"long_name": "pSO4 samples without pNa in the period: total "
                               "pSO4 used for them in place of non-sea-salt pSO4"}),
+         "pSO4_nss_censored": (("site", "period"), censored_nss_notes(rows, periods, sites),
+                               {"long_name": "pSO4 samples below detection beside a pNa: "
+                                "their non-sea-salt pSO4 from the limit less the sea salt"}),
          "pSO4_na_censored": (("site", "period"), censored_na_notes(rows, periods, sites),
                               {"long_name": "pSO4 samples whose pNa was below detection: "
                                "their sea-salt sulfate from the substitute"}),

@@ -232,6 +232,11 @@ UNCERTAINTY = {
                              "calibration"),
     "bulk_factor_rel_sd": ("from memory", "0.1: wet-only / bulk ratios of rural sites "
                            "spread over roughly 0.7-0.9 around the typical 0.8"),
+    "bulk_factor_ion_correlation": ("our choice", "0.7, no published value: from memory, "
+                                    "the bulk / wet-only ratios of sulfate and nitrate at a "
+                                    "site rise and fall together (the funnel's exposure), "
+                                    "ammonium's less so (NH3 gained, NH4 lost in the "
+                                    "standing sample)"),
 }
 
 SENSITIVITY = {

@@ -499,4 +499,26 @@ def summary_table(result) -> pd.DataFrame:
         pwm = ds["pwm"].transpose("site", "period", "wet_ion").values[si, pi]
         for k, ion in enumerate(ds["wet_ion"].values.astype(str)):
             frame[f"pwm_{ion}_umol_L"] = pwm[:, k] * UMOL_L_PER_MOL_M3
-    return frame
+    return _values_beside_quantiles(frame, ds, si, ri, pi)
+
+
+def _values_beside_quantiles(frame, ds, si, ri, pi):
+    """With the Monte Carlo's quantiles (``<name>_p05``, ``_p50``, ``_p95``): each
+    quantity's own value in the column just before them.  The wet and dry totals
+    (``S_wet_kg_ha`` ...) had their quantiles in summary.csv but not their value, and
+    the S and N totals' value stood far after its quantiles."""
+    if not any(c.endswith("_p05") for c in frame.columns):
+        return frame
+    names = list(ds["total"].values.astype(str))
+    tot = ds["total_deposition"].transpose("site", "receptor", "period", "total").values
+    for name in names:
+        col = f"{name}_kg_ha"
+        if f"{col}_p05" in frame and col not in frame:
+            frame[col] = element_deposition_in(tot[si, ri, pi, names.index(name)],
+                                               name.split("_")[0], "kg_ha")
+    cols = [c for c in frame.columns]
+    for c in [c[:-4] for c in frame.columns if c.endswith("_p05")]:
+        if c in cols:
+            cols.remove(c)
+            cols.insert(cols.index(f"{c}_p05"), c)
+    return frame[cols]

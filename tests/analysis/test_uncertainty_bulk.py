@@ -105,7 +105,7 @@ def test_a_factor_per_ion(tmp_path):
 
 def test_a_factor_per_ion_in_the_draws(tmp_path):
     """``bulk_factor_rel_sd`` 0.1 alone, NH4's factor 1.0: u (one per site, shared by
-    its ions) acts on each ion's bulk part b = s f / (1 - s (1 - f)) of its own f, so
+    its ions: ``bulk_factor_ion_correlation`` 1) acts on each ion's bulk part b = s f / (1 - s (1 - f)) of its own f, so
     the N total of gars has relative SD 0.1 (b_NO3 NO3 + b_NH4 NH4) / N with
     b_NO3 = 0.4 / 0.9 and b_NH4 = 0.5 (docs/budget.md, "Bulk collectors")."""
     path = _network(tmp_path / "ion", "bulk_wet_factor_ion = {NH4 = 1.0}")
@@ -114,7 +114,8 @@ def test_a_factor_per_ion_in_the_draws(tmp_path):
     o = sc.options
     res = study.run(o["wet"], o["dry"], o["budget"], sc.fixed_velocity, "year")
     q = U.monte_carlo(res, study, U.UncertaintyOptions(draws=N, seed=7,
-                                                      **{**OFF, "bulk_factor_rel_sd": 0.1}))
+                                                      **{**OFF, "bulk_factor_rel_sd": 0.1,
+                                                         "bulk_factor_ion_correlation": 1.0}))
     sites = [str(x) for x in q.total_draws["site"].values]
     n_tot = q.total_draws["n_dep_eq_ha_yr"].sel(receptor="grass", period="2019").values
     point = res.years["deposition"].sel(receptor="grass").isel(period=0).values

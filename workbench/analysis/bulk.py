@@ -14,7 +14,8 @@ bulk samples' part of the PWM's numerator, :math:`\\beta_i` the bulk share of pi
 .. math:: D' = D_0' \\,(1 - s'\\,(1 - f u))
 
 with :math:`D_0'` the drawn unscaled deposition (:func:`~.wetdraws.wet_ratios`),
-:math:`u` the drawn factor over :math:`f` (``bulk_factor_rel_sd``, one per site) and
+:math:`u` the drawn factor over :math:`f` (``bulk_factor_rel_sd``, one per site and
+ion, correlated among the ions by ``bulk_factor_ion_correlation``) and
 :math:`s'` the share recomputed from the same draw's depth and analysis errors of each
 sample (:func:`drawn_shares`): the errors of the bulk samples are scaled by :math:`f`,
 those of the wet-only samples are not.  Where :math:`s` is 0 or 1 (a period under one

@@ -204,7 +204,8 @@ def _seasalt_rows(pr, r, air, censored="half"):
     """(n, P, R) sea-salt sulfate deposition each nss pSO4 row had taken off [mol m-2]:
     its contribution over its nss concentration (the row's air volume at its Vd) times
     0.0605 pNa (Keene et al. 1986, :func:`workbench.wet.seasalt.seawater_ratio`); 0 where
-    pNa is missing (total pSO4 used) or the nss concentration is 0.  A pNa below
+    pNa is missing (total pSO4 used), the nss concentration is 0, or the pSO4 was below
+    detection (its substitute is already non-sea-salt).  A pNa below
     detection takes the budget's substitute (`censored`, ``[budget] air_censored``).
     Also (n,) whether the row's pNa was below detection."""
     from ..dryflux import _censored_values
@@ -213,7 +214,11 @@ def _seasalt_rows(pr, r, air, censored="half"):
     na = np.asarray(na_all, float)[r["air_row"]]
     cens = np.asarray(cens_all, bool)[r["air_row"]]
     conc = np.asarray(r["conc"], float)
-    ok = np.isfinite(na) & np.isfinite(conc) & (conc != 0)
+    # a pSO4 below detection took its non-sea-salt part from the limit less the sea
+    # salt (workbench.drycomponents._nss_particles): it is drawn as that substitute
+    # with censored_rel_sd, no sea-salt part of its own
+    so4_cens = np.asarray(r.get("censored", np.zeros(len(conc), bool)), bool)
+    ok = np.isfinite(na) & np.isfinite(conc) & (conc != 0) & ~so4_cens
     per_c = np.where(ok, seawater_ratio("SO4", "Na") * np.where(ok, na, 0.0)
                      / np.where(ok, conc, 1.0), 0.0)
     return pr * per_c[:, None, None], cens & ok

@@ -54,8 +54,9 @@ class SiteNoise:
     vd_class: dict = field(default_factory=dict)
     lab_precip: dict = field(default_factory=dict)
     lab_air: dict = field(default_factory=dict)
-    #: (D, Y) the site's bulk-collector factor over ``bulk_wet_factor`` [1] (None: not
-    #: drawn: no bulk part, or ``bulk_factor_rel_sd`` 0)
+    #: (D, Y) the site's bulk-collector factor over ``bulk_wet_factor`` [1], shared by
+    #: its ions, or ion -> (D, Y) their own factors (``bulk_factor_ion_correlation`` < 1,
+    #: :func:`bulk_factors`) (None: not drawn: no bulk part, or ``bulk_factor_rel_sd`` 0)
     bulk: np.ndarray | None = None
     #: (D, Y, 1) the site's own Vd factor [1], already in ``vd`` and ``vd_class`` (None:
     #: ``vd_site_gsd`` 1)
@@ -233,15 +234,48 @@ def _lab_bias(opt, key, run_key, kind, name, analyte, instants, ids, sd, d, n_ye
 
 def _site_factor(opt, key, tag, d, n_years, year0, draw):
     """A systematic factor of the site's own (D, Y): `draw(rng)` (D,) from one stream
-    of the site and `tag`, shared by the years, or from one per calendar year
-    (``"each_year"``)."""
+    of the site and `tag` (an int, or a list of ints after it), shared by the years, or
+    from one per calendar year (``"each_year"``)."""
+    tags = [tag] if isinstance(tag, int) else list(tag)
     if getattr(opt, "systematic_errors", "shared") == "shared":
-        one = draw(np.random.default_rng(key + [RECORD_STREAM, tag]))
+        one = draw(np.random.default_rng(key + [RECORD_STREAM] + tags))
         return np.broadcast_to(one[:, None], (d, n_years))
     out = np.empty((d, n_years))
     for y in range(n_years):
-        out[:, y] = draw(np.random.default_rng(key + [YEAR_STREAM, int(year0) + y, tag]))
+        out[:, y] = draw(np.random.default_rng(key + [YEAR_STREAM, int(year0) + y] + tags))
     return out
+
+
+#: The ions whose bulk part takes a drawn ``bulk_wet_factor`` (their own factor under
+#: ``bulk_factor_ion_correlation`` < 1).
+BULK_IONS = ("SO4", "NO3", "NH4")
+
+
+def bulk_factors(opt, key, sd, d, n_years, year0):
+    """The site's bulk-collector factors over ``bulk_wet_factor`` [1].
+
+    Each ion's factor is :math:`u_X = \\max(0, 1 + sd(\\sqrt{\\rho} z + \\sqrt{1-\\rho}
+    z_X))` with :math:`z` the site's deviate (the stream of before, tag
+    :data:`BULK_FACTOR`), :math:`z_X` the ion's own (tag ``BULK_FACTOR`` and the ion)
+    and :math:`\\rho` = ``bulk_factor_ion_correlation``: the correlation of two ions'
+    factors is :math:`\\rho` (before the cut at 0, which `sd` 0.1 leaves unreached in
+    all but ~1e-23 of the draws).  Systematic as the site's other factors (shared by
+    its years, or per calendar year under ``"each_year"``).
+
+    Returns
+    -------
+    ndarray (D, Y) or dict
+        With :math:`\\rho` = 1, one (D, Y) array shared by the ions (the same numbers
+        as before the option); else ion -> (D, Y).
+    """
+    rho = float(getattr(opt, "bulk_factor_ion_correlation", 1.0))
+    z = _site_factor(opt, key, BULK_FACTOR, d, n_years, year0, lambda r: r.standard_normal(d))
+    if rho >= 1.0:
+        return np.maximum(1.0 + np.asarray(sd, float) * z, 0.0)
+    a, c = np.sqrt(rho), np.sqrt(1.0 - rho)
+    return {ion: np.maximum(1.0 + sd * (a * z + c * _site_factor(
+                opt, key, [BULK_FACTOR] + _stream_key((ion,)), d, n_years, year0,
+                lambda r: r.standard_normal(d))), 0.0) for ion in BULK_IONS}
 
 
 def _class_parts(seed_key, key, opt, classes, d, n_years, year0, k):
@@ -466,7 +500,6 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
     bulk = None
     sd_bulk = float(getattr(opt, "bulk_factor_rel_sd", 0.0))
     if sd_bulk > 0 and getattr(layer_site, "bulk_part", None):
-        bulk = _site_factor(opt, key, BULK_FACTOR, d, n_years, year0,
-                            lambda r: _normal_factor(r, sd_bulk, (d,)))
+        bulk = bulk_factors(opt, key, sd_bulk, d, n_years, year0)
     return SiteNoise(vd, gauge, depth, pconc, air, vd_fill, pwm_fill, gauge_periods, vd_class,
                      lab_precip, lab_air, bulk, vd_site, air_ss)

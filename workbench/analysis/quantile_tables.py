@@ -172,6 +172,8 @@ def draws_in_force(options) -> str:
             f"vd_site_gsd = {getattr(options, 'vd_site_gsd', 1.0):g}, "
             f"lab_bias_filter_pack = {str(getattr(options, 'lab_bias_filter_pack', False)).lower()}, "
             f"bulk_factor_rel_sd = {getattr(options, 'bulk_factor_rel_sd', 0.0):g}, "
+            f"bulk_factor_ion_correlation = "
+            f"{getattr(options, 'bulk_factor_ion_correlation', 1.0):g}, "
             f"gauge_catch_rel_sd = {options.gauge_catch_rel_sd:g} per gauge period "
             f"({options.draws} draws, seed {options.seed}).")
 
@@ -199,33 +201,76 @@ def report_section(table, to_html, options=None) -> list:
                                       "flux_kg_ha_yr_p50": "50 %", "flux_kg_ha_yr_p95": "95 %",
                                       "range_note": "the range covers"})
     return ["<h2>Uncertainty: 5-95 % range of every total [kg/ha/yr of S or N]</h2>",
-            "<p>" + html.escape(REPORT_TEXT) + "</p>",
+            "<p>" + html.escape(report_text(options)) + "</p>",
             "<p class='draws'>" + html.escape(draws_in_force(options)) + "</p>", to_html(frame)]
 
 
-#: What the ranges hold and leave out, as the report says it (docs/methods_uncertainty.md,
-#: "What a range covers").
-REPORT_TEXT = (
-    "Quantiles of a Monte Carlo of the budget: Vd model factors (log-normal, "
-    "systematic: the same at every site and in every year, with a part of their own "
-    "per land-use class), gauge catch (systematic: one per gauge of a site, the same in "
-    "every year that gauge stood; a declared gauge change starts a new one), a "
-    "laboratory's calibration bias (systematic: one per ion or species and laboratory "
-    "of a site, shared by every sample it analysed; air and precipitation laboratories "
-    "apart; a declared laboratory change starts a new one), analytical and depth "
-    "errors per sample, "
-    "gap-filled Vd (by the share of the deposition the filled hours carry) and PWMs "
-    "filled from the climatology (docs/methods_uncertainty.md). They bound the errors "
-    "named there only. A span mean's range does not narrow with its years for the "
-    "systematic factors (unless [uncertainty] systematic_errors = \"each_year\", the "
-    "old treatment kept for comparison). Not in the range: errors of the method itself "
-    "(omitted species and processes); the difference between the gas schemes (the Vd "
-    "factors stand for model spread in general, not for the scheme chosen); a "
-    "calibration bias shared by the air and the precipitation laboratory, or by two "
-    "species analysed as one ion; the scaling of a period's measured "
-    "hours or samples to the whole period where coverage is short; flagged samples kept "
-    "at their values and gauge depths filled from the collector or the met record (they "
-    "get the ordinary errors). A total "
-    "lacking components (status partial) has the range of its measured components: "
-    "the total's quantiles are at least these and its 95 % is no upper bound (column "
-    "'the range covers').")
+def report_text(options=None) -> str:
+    """What the ranges hold and leave out, as the report says it, for the options the
+    draws were made with (docs/methods_uncertainty.md, "What a range covers").
+
+    Each factor the draws hold is named, and nothing they hold is listed as left out:
+    before, one fixed text said that a calibration bias shared by the air and the
+    precipitation laboratory, or by two species analysed as one ion, was not in the
+    range, beside the line saying ``lab_bias_filter_pack = true`` (SO2 and pSO4 one
+    draw) and while a laboratory the catalogue names for both is one draw; and it
+    named neither the site's own Vd factor, the bulk-collector factor, nor the values
+    below detection, all drawn.
+
+    Parameters
+    ----------
+    options : UncertaintyOptions, optional
+        The options of the draws (None: the defaults).
+    """
+    if options is None:
+        from .uncertainty import UncertaintyOptions
+        options = UncertaintyOptions()
+    shared = getattr(options, "systematic_errors", "shared") == "shared"
+    site_vd = float(getattr(options, "vd_site_gsd", 1.0)) > 1.0
+    pack = bool(getattr(options, "lab_bias_filter_pack", False))
+    bulk = float(getattr(options, "bulk_factor_rel_sd", 0.0)) > 0
+    when = ("the same at every site and in every year" if shared
+            else "drawn anew for every site and calendar year")
+    vd = (f"Vd model factors (log-normal, systematic: {when}, with a part of their own per "
+          "land-use class" + (" and one of each site's own, vd_site_gsd" if site_vd else "")
+          + ")")
+    gauge = ("gauge catch (systematic: one per gauge of a site, the same in every year that "
+             "gauge stood; a declared gauge change starts a new one)" if shared else
+             "gauge catch (systematic: one per gauge of a site and calendar year)")
+    lab = ("a laboratory's calibration bias (systematic: one per ion or species and "
+           "laboratory period of a site, shared by every sample it analysed; air and "
+           "precipitation laboratories apart; a laboratory the site catalogue names is one "
+           "draw per analysed ion for every site, and for the air and the precipitation, "
+           "naming it"
+           + ("; a filter pack's gas filter shares its particle filter's draw, SO2 with "
+              "pSO4, HNO3 with pNO3, NH3 with pNH4" if pack else "")
+           + "; a declared laboratory change starts a new one)")
+    rest = ("analytical and depth errors per sample, values below detection (a spread "
+            "between 0 and the limit about the substitute), the pNa analysis behind the "
+            "non-sea-salt pSO4, gap-filled Vd (by the share of the deposition the filled "
+            "hours carry) and PWMs filled from the climatology")
+    if bulk:
+        rest += (", and under bulk_correction = \"scale_wet\" a bulk collector's "
+                 "wet-only / bulk factor (one per site and ion, correlated among the ions "
+                 "by bulk_factor_ion_correlation)")
+    span = ("A span mean's range does not narrow with its years for the systematic "
+            "factors (unless [uncertainty] systematic_errors = \"each_year\", the old "
+            "treatment kept for comparison). " if shared else
+            "With systematic_errors = \"each_year\" a span mean's range narrows as "
+            "1/sqrt(years) for the systematic factors: a range for comparison, not to be "
+            "quoted for a multi-year mean. ")
+    left = ("a calibration bias shared by laboratories the site catalogue does not name "
+            "as one" + ("" if pack else ", or by the gas and particle filters of a pack "
+                        "(lab_bias_filter_pack = false)"))
+    return (f"Quantiles of a Monte Carlo of the budget: {vd}, {gauge}, {lab}, {rest} "
+            "(docs/methods_uncertainty.md). They bound the errors named there only. "
+            + span + "Not in the range: errors of the method itself (omitted species and "
+            "processes); the difference between the gas schemes (the Vd factors stand for "
+            "model spread in general, not for the scheme chosen); " + left + "; the "
+            "scaling of a period's measured hours or samples to the whole period where "
+            "coverage is short; flagged samples kept at their values and gauge depths "
+            "filled from the collector or the met record (they get the ordinary errors). "
+            "A total lacking components (status partial) has the range of its measured "
+            "components: the total's quantiles are at least these and its 95 % is no "
+            "upper bound (column 'the range covers').")
+

@@ -637,6 +637,8 @@ def sensitivity_html(frame: pd.DataFrame, torn: pd.DataFrame, period=None) -> st
                             & (frame["receptor"] == first["receptor"]), "period"].astype(str)
         period = str(period) if period is not None and str(period) in set(periods) \
             else periods.iloc[-1]
+        parts.append("<p class='shown'>" + _html.escape(shown_text(
+            frame, first["site"], first["receptor"], period)) + "</p>")
         include = "inline"
         for el, quantity, _ in OUTPUTS:
             if _pick_any(frame, first["site"], first["receptor"], period, el, quantity):
@@ -646,6 +648,24 @@ def sensitivity_html(frame: pd.DataFrame, torn: pd.DataFrame, period=None) -> st
                 include = False
     parts.append("</body></html>")
     return "\n".join(parts)
+
+
+def shown_text(frame: pd.DataFrame, site, receptor, period) -> str:
+    """The sentence of sensitivity.html naming the one cell its figures show, where the
+    rest is, and how to read an index below 0 [text].  Before, the page showed the first
+    site's first receptor and last period under a text naming none of it: a reader of a
+    network's page took it for the network's sensitivity."""
+    n_cells = len(frame[["site", "receptor", "period"]].drop_duplicates())
+    neg = bool((frame["S1"] < 0).any())
+    return (f"The figures show site {site}, receptor {receptor}, period {period}: the first "
+            "site and receptor analysed and its last period, one of the "
+            f"{n_cells} (site, receptor, period) cells of sensitivity.csv and tornado.csv, "
+            "which hold them all ([sensitivity] sites and receptors pick others). "
+            + ("An S1 below 0 (here down to "
+               f"{float(frame['S1'].min()):.2g}), or above its ST, is sampling error of the "
+               "estimate (S1_conf and ST_conf give the 95 % intervals): read it as about "
+               "0, or as equal to ST; more [sensitivity] samples narrow it." if neg
+               else ""))
 
 
 def _pick_any(frame, site, receptor, period, element, quantity) -> bool:

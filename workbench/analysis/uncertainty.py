@@ -164,11 +164,19 @@ class UncertaintyOptions:
         against one calibration); False draws each species apart, as before.
     bulk_factor_rel_sd : float
         Relative standard deviation of ``[budget] bulk_wet_factor`` [1] under
-        ``bulk_correction = "scale_wet"``, systematic: one draw per site (its funnel's
-        exposure to dry deposition), shared by its ions and years (``"each_year"``:
-        per site and year), acting on the part of the wet deposition its bulk samples
+        ``bulk_correction = "scale_wet"``, systematic: one draw per site and ion,
+        correlated among the site's ions (``bulk_factor_ion_correlation``), shared by
+        its years (``"each_year"``: per site and year), acting on the part of the wet deposition its bulk samples
         carry.  0.1 (from memory: wet-only / bulk ratios of rural sites spread over
         roughly 0.7-0.9 around the typical 0.8); 0 switches it off.
+    bulk_factor_ion_correlation : float
+        Correlation in [0, 1] between the drawn factors of the ions SO4, NO3 and NH4 of
+        one site [1]: each ion's factor is u = 1 + sd (sqrt(rho) z_site + sqrt(1 - rho)
+        z_ion), cut at 0, z_site shared by the site's ions (the funnel's exposure), z_ion
+        its own (how much of the ion's dry deposition the funnel gains, and for NH4 its
+        loss in the standing sample).  0.7 (our choice, no published value: from memory,
+        the bulk / wet-only ratios of sulfate and nitrate at a site rise and fall
+        together, ammonium's less so); 1 shares one factor by the ions, as before.
     """
 
     draws: int = 0
@@ -189,6 +197,7 @@ class UncertaintyOptions:
     vd_site_gsd: float = 1.2
     lab_bias_filter_pack: bool = True
     bulk_factor_rel_sd: float = 0.1
+    bulk_factor_ion_correlation: float = 0.7
 
     def __post_init__(self):
         if self.systematic_errors not in SYSTEMATIC_ERRORS:
@@ -206,7 +215,7 @@ class UncertaintyOptions:
             if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 <= v < math.inf:
                 raise ValueError(f"UncertaintyOptions.{name} = {v!r} must be a finite number "
                                  ">= 0 (0 switches the factor off)")
-        for name in ("vd_shared_fraction", "vd_class_fraction"):
+        for name in ("vd_shared_fraction", "vd_class_fraction", "bulk_factor_ion_correlation"):
             v = getattr(self, name)
             if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 <= v <= 1:
                 raise ValueError(f"UncertaintyOptions.{name} = {v!r} must lie in [0, 1]")
@@ -401,7 +410,10 @@ def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int)
                     # period holding a collector change, its drawn share)
                     sh = (np.where(p.redraw[None, :] == PRECIP, shares.get("precip", np.nan),
                                    shares.get(ion, np.nan)) if shares else None)
-                    r = apply_bulk(r, p, None if noise.bulk is None else noise.bulk[:, yi], sh)
+                    u = noise.bulk
+                    if isinstance(u, dict):       # each ion its own factor (its component's)
+                        u = u.get(COMPONENTS[j][2])
+                    r = apply_bulk(r, p, None if u is None else u[:, yi], sh)
                 ratio[..., j] = r[:, None, :]
     out = point[None] * ratio
     for j, (drawn, same) in direct.items():
