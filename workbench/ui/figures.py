@@ -347,7 +347,8 @@ def status_note(statuses, missing=()) -> str:
     return f" ({', '.join(bad)})" if bad else ""
 
 
-def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr", template=TEMPLATE):
+def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr", template=TEMPLATE,
+                       model_baseline=None):
     """Response of each total to one assumption, the baseline marked.
 
     Parameters
@@ -361,11 +362,18 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
         The assumption's name with its unit (x axis title).
     baseline : object
         The scenario's setting (marked by a vertical line and open markers).
+    model_baseline : dict, optional
+        ``{"S": rate, "N": rate}`` [unit]: the totals of the run whose setting is left to
+        the model or the catalogue (no `baseline` value on the x axis), drawn as a
+        dotted horizontal line in each panel and named in the legend ("baseline
+        (model)"), not by a label on the line: a label there sat on the total's curve,
+        which runs along that line wherever the total does not respond.
 
     Returns
     -------
     plotly.graph_objects.Figure
-        Six traces (S and N: wet, dry, total) and two of the baseline points.
+        Six traces (S and N: wet, dry, total) and two of the baseline points; with
+        `model_baseline`, one more trace: the legend entry of its lines.
     """
     fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"),
                         horizontal_spacing=PANEL_GAP)
@@ -397,6 +405,16 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
         fig.update_xaxes(title_text=wrap_text(label, AXIS_CHARS), row=1, col=col)
     if not cat and baseline is not None:
         fig.add_vline(x=baseline, line=baseline_line())
+    drawn = False
+    for col, el in enumerate(ELEMENTS, start=1):
+        v = (model_baseline or {}).get(el)
+        if v is not None and np.isfinite(v):
+            fig.add_hline(y=v, line=baseline_line(), row=1, col=col)
+            drawn = True
+    if drawn:                   # the lines' name: a legend entry, clear of every curve
+        fig.add_trace(go.Scatter(x=[None], y=[None], mode="lines", line=baseline_line(),
+                                 name="baseline (model)", legendgroup="baseline",
+                                 hoverinfo="skip"), row=1, col=1)
     title = wrap_text(f"Sensitivity of the totals to {label}", TITLE_CHARS)
     fig.update_layout(title=title, template=template, height=HEIGHT,
                       margin=dict(t=title_room(title)))

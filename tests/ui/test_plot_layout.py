@@ -1,0 +1,82 @@
+"""Layout of the figures as a browser pass at 1,000 px saw them: the sensitivity sweep's
+"baseline (model)" label written over the N-total curve, and the network overview's
+annual totals squeezed into two narrow panels with their years turned on end.  Checked
+on the figure specs (plotly JSON), so no browser is needed."""
+import warnings
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from workbench.ui import figures
+
+
+def _panel_of(ref: str) -> str:
+    """The y axis an annotation or trace refers to ('y', 'y2'...) or '' for paper."""
+    ref = (ref or "y").split(" ")[0]
+    return "" if ref == "paper" else ref
+
+
+def _labels_on_curves(fig, near=0.05):
+    """Annotations written among a panel's traces: anchored on a data y axis at a height
+    within `near` (fraction of the panel's span of values) of a point of a trace drawn
+    there."""
+    hits = []
+    for a in fig.layout.annotations:
+        yaxis = _panel_of(a.yref)
+        if not yaxis:
+            continue
+        ys = np.array([v for t in fig.data if (t.yaxis or "y") == yaxis
+                       for v in (t.y or ()) if v is not None], float)
+        if not len(ys):
+            continue
+        span = max(np.ptp(np.append(ys, 0.0)), 1e-12)      # rangemode tozero
+        if np.min(np.abs(ys - float(a.y))) <= near * span:
+            hits.append((a.text, yaxis, a.y))
+    return hits
+
+
+def test_model_baseline_is_named_in_the_legend_not_over_a_curve(session):
+    """Defect: the sweep of a velocity left to the model (fixed Vd of SO2 not set) drew
+    its baseline line with "baseline (model)" written at its right end, on the N-total
+    curve (SO2's velocity does not move N: the curve runs along the baseline)."""
+    from workbench.ui.apps_more import SensitivityExplorer
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = SensitivityExplorer(session, site="ridge", years=(2021, 2021), run=False)
+        app.key_w.value = "fixed_velocity.SO2"
+        app.range_w.value = (0.2, 1.0)
+        app.steps_w.value = 3
+        app.run()
+    fig = app.fig
+    n_total = next(t for t in fig.data if t.name.startswith("N total"))
+    assert np.ptp(np.array(n_total.y, float)) < 1e-9        # the flat curve of the defect
+    assert _labels_on_curves(fig) == []
+    lines = [s for s in fig.layout.shapes if s.type == "line" and s.y0 == s.y1]
+    assert len(lines) == 2                                  # a baseline line per panel
+    entry = [t for t in fig.data if t.name == "baseline (model)"]
+    assert len(entry) == 1 and entry[0].showlegend is not False
+    assert entry[0].line.dash == "dot"                      # drawn as the lines are
+    assert lines[1].y0 == pytest.approx(n_total.y[0])
+
+
+def test_labels_on_curves_sees_a_label_on_a_flat_curve():
+    """The check above can fail: a label put on the line of a flat curve is found."""
+    import plotly.graph_objects as go
+    fig = go.Figure(go.Scatter(x=[0, 1], y=[3.0, 3.0]))
+    fig.add_hline(y=3.0, annotation_text="baseline (model)")
+    assert _labels_on_curves(fig)
+    fig = go.Figure(go.Scatter(x=[0, 1], y=[3.0, 3.0]))
+    fig.add_hline(y=3.0)
+    assert _labels_on_curves(fig) == []
+
+
+def test_sweep_with_a_set_baseline_has_no_model_entry():
+    table = pd.DataFrame({"value": [0.1, 0.2] * 6, "total": sorted(
+        [f"{el}_{pw}" for el in "SN" for pw in ("wet", "dry", "total")] * 2),
+        "rate": np.arange(12.0), "status": "complete"})
+    fig = figures.sensitivity_curves(table, "x", 0.1)
+    assert not any(t.name == "baseline (model)" for t in fig.data)
+    fig = figures.sensitivity_curves(table, "x", None, model_baseline={"S": 1.0, "N": np.nan})
+    assert [t.name for t in fig.data].count("baseline (model)") == 1
+    assert len([s for s in fig.layout.shapes if s.y0 == s.y1]) == 1   # no line at NaN
