@@ -37,9 +37,8 @@ def test_few_sites_keep_their_open_marker_entries():
     fig = figures.network_totals(_table(3))
     # s01 has no partial total in _table(3): no open-marker entry of its own
     assert [t.name for t in fig.data if t.showlegend is not False] == [
-        "s00", "s00 (partial or flagged: not ranked)", "s01", "s02",
-        "s02 (partial or flagged: not ranked)"]
-    assert fig.layout.height == figures.HEIGHT
+        "s00", f"s00 {figures.OPEN_ENTRY}", "s01", "s02", f"s02 {figures.OPEN_ENTRY}"]
+    assert fig.layout.height == figures.TOTALS_HEIGHT
 
 
 def test_thirty_ranked_sites_are_all_named():
@@ -83,7 +82,7 @@ def test_a_tall_figure_is_exported_at_its_own_height(monkeypatch, tmp_path):
     fig = figures.network_ranking_bars(network_ranking(span, "N"), "N")
     export.export_figure(fig, tmp_path / "r.png")
     export.export_figure(figures.network_totals(_table(3)), tmp_path / "t.png")
-    assert sizes == [(export.WIDTH, fig.layout.height), (export.WIDTH, export.HEIGHT)]
+    assert sizes == [(export.WIDTH, fig.layout.height), (export.WIDTH, figures.TOTALS_HEIGHT)]
 
 
 def test_a_site_without_open_markers_has_no_open_marker_entry():
@@ -93,4 +92,4 @@ def test_a_site_without_open_markers_has_no_open_marker_entry():
     t["rankable"] = ~((t["site"] == "s01") & (t["element"] == "N"))
     fig = figures.network_totals(t)
     shown = [tr.name for tr in fig.data if tr.showlegend is not False]
-    assert shown == ["s00", "s01", "s01 (partial or flagged: not ranked)"]
+    assert shown == ["s00", "s01", f"s01 {figures.OPEN_ENTRY}"]

@@ -80,3 +80,50 @@ def test_sweep_with_a_set_baseline_has_no_model_entry():
     fig = figures.sensitivity_curves(table, "x", None, model_baseline={"S": 1.0, "N": np.nan})
     assert [t.name for t in fig.data].count("baseline (model)") == 1
     assert len([s for s in fig.layout.shapes if s.y0 == s.y1]) == 1   # no line at NaN
+
+
+def _network(n_sites, years, partial=True):
+    rows = []
+    for i in range(n_sites):
+        for el in ("S", "N"):
+            for k, y in enumerate(years):
+                ok = not partial or (i + k) % 4 != 1
+                rows.append({"site": f"site{i}", "element": el, "period": str(y),
+                             "value": 5.0 + i + k, "rankable": ok,
+                             "status": "complete" if ok else "partial",
+                             "missing": "" if ok else "NO2"})
+    return pd.DataFrame(rows)
+
+
+@pytest.mark.parametrize("n_sites, years", [(4, range(2016, 2024)), (3, range(2010, 2024)),
+                                            (30, range(1995, 2025)), (2, (2021,))])
+def test_network_years_are_written_level_at_a_notebook_width(n_sites, years):
+    """Defect (browser at 1,000 px, the demo's 4 sites and 8 years): the sulfur and
+    nitrogen panels side by side beside a legend of "ridge (partial or flagged: not
+    ranked)" entries got ~150 px each and plotly turned the years on end.  Each panel
+    now spans the figure's width, the legend is narrower, and where the years still do
+    not fit every k-th year is named: the years shown fit side by side in a panel of
+    an 800 px output area (plotly then writes them level)."""
+    fig = figures.network_totals(_network(n_sites, years))
+    for x in ("xaxis", "xaxis2"):
+        ax = fig.layout[x]
+        assert tuple(ax.domain) == (0.0, 1.0), x         # each panel the figure's width
+        shown = list(ax.tickvals)
+        assert shown == sorted(shown) and shown[0] == str(min(years))
+        assert len(shown) * figures.YEAR_LABEL_PX <= figures.totals_plot_px(fig), x
+    assert figures.totals_plot_px(fig) >= 0.5 * figures.NOTEBOOK_PX
+    # every year still drawn: the categories are all the years, in order
+    assert list(fig.layout.xaxis2.categoryarray) == [str(y) for y in years]
+    assert fig.layout.xaxis2.title.text == "year"
+
+
+def test_panel_width_check_fails_on_panels_side_by_side():
+    """The check above can fail: two panels side by side beside the long one-line
+    legend entries leave too little room for 8 years."""
+    import plotly.graph_objects as go
+    from plotly.subplots import make_subplots
+    fig = make_subplots(rows=1, cols=2, horizontal_spacing=figures.PANEL_GAP)
+    for col in (1, 2):
+        fig.add_trace(go.Scatter(x=[str(y) for y in range(2016, 2024)], y=[1] * 8,
+                                 name="ridge (partial or flagged: not ranked)"), row=1, col=col)
+    assert 8 * figures.YEAR_LABEL_PX > figures.totals_plot_px(fig)

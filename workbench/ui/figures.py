@@ -438,8 +438,11 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
     plotly.graph_objects.Figure
         Per site and element: one trace of rankable years and one of the others.
     """
-    fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"),
-                        horizontal_spacing=PANEL_GAP)
+    # one panel above the other, each the figure's width: side by side beside the
+    # legend, each panel had ~150 px at a 1,000 px window and plotly turned the years on
+    # end (a browser pass of the demo's 8 years)
+    fig = make_subplots(rows=2, cols=1, subplot_titles=("sulfur", "nitrogen"),
+                        vertical_spacing=TOTALS_GAP)
     sites = list(pd.unique(table["site"]))
     # more sites than colours: each round of the colours gets its own dash, so that no
     # two sites look alike; the open markers share one note instead of a legend entry
@@ -461,7 +464,7 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
                 fig.add_trace(go.Scatter(
                     x=g["period"], y=[x if np.isfinite(x) else None for x in v],
                     mode="lines+markers" if ok else "markers",
-                    name=f"{site}" if ok else f"{site} (partial or flagged: not ranked)",
+                    name=f"{site}" if ok else f"{site} {OPEN_ENTRY}",
                     legendgroup=site,
                     showlegend=col == 1 and (ok or (not many and site in unranked)),
                     line=dict(color=colour, dash=dash), connectgaps=False,
@@ -469,12 +472,15 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
                     customdata=why,
                     hovertemplate=(f"{site} {el} total %{{x}}: %{{y:.3g}} "
                                    f"{axis_text(unit, element=el)}<br>%{{customdata}}"
-                                   "<extra></extra>")), row=1, col=col)
-        fig.update_yaxes(title_text=axis_text(unit, element=el), row=1, col=col, rangemode="tozero")
-        fig.update_xaxes(title_text="year", type="category", row=1, col=col)
+                                   "<extra></extra>")), row=col, col=1)
+        fig.update_yaxes(title_text=axis_text(unit, element=el), row=col, col=1,
+                         rangemode="tozero")
+        fig.update_xaxes(type="category", row=col, col=1, **year_ticks(table["period"]))
+    fig.update_xaxes(title_text="year", row=2, col=1)
     fig.update_layout(title="Annual totals of the network (each site on its own surface)",
                       template=template, legend_title="site",
-                      height=legend_height(len(sites) + 1) if many else HEIGHT)
+                      height=legend_height(len(sites) + 1, TOTALS_HEIGHT) if many
+                      else TOTALS_HEIGHT)
     if many:
         # one legend group per site: plotly's 10 px gap between groups made 30 entries
         # half as tall again as the room for them (a scroll bar after 22 sites)
@@ -484,6 +490,50 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
                            showarrow=False, xanchor="left", yanchor="top",
                            font=dict(size=11))
     return fig
+
+
+#: Height of the network's annual totals, two panels one above the other [px].
+TOTALS_HEIGHT = 640
+#: Gap between the sulfur and the nitrogen panel of the annual totals [share of the
+#: height]: room for the sulfur panel's years and the nitrogen panel's title.
+TOTALS_GAP = 0.12
+#: Legend entry of a site's open markers in the annual totals, on two lines (on one,
+#: "ridge (partial or flagged: not ranked)" made the legend ~250 px wide).
+OPEN_ENTRY = "(partial or<br>flagged: not ranked)"
+#: Width of a notebook's output area in a 1,000 px browser window, JupyterLab's side
+#: bar closed [px] (measured in chromium, JupyterLab 4.6); the width at which the
+#: annual totals must write their years level.
+NOTEBOOK_PX = 800
+#: Room of a year label on a category axis [px]: four digits at plotly's 12 px font
+#: (~7 px each) and a gap; plotly turns labels on end when they do not fit.
+YEAR_LABEL_PX = 40
+
+
+def totals_plot_px(fig, notebook_px: int = NOTEBOOK_PX) -> float:
+    """Width of a panel's plot area of :func:`network_totals` [px] in an output area
+    `notebook_px` wide: the figure's width less plotly's margins (80 px each side,
+    the template's) and the legend (its longest line at ~7 px a character, and 40 px
+    of symbol and padding)."""
+    import re
+    names = [t.name for t in fig.data if t.showlegend is not False] + ["site"]
+    longest = max(len(line) for n in names for line in re.split("<br>", str(n)))
+    legend = 40 + 7 * longest
+    dom = fig.layout.xaxis.domain or (0, 1)
+    return (notebook_px - 160 - legend) * (dom[1] - dom[0])
+
+
+def year_ticks(periods, plot_px: float | None = None) -> dict:
+    """Ticks of a category axis of years: every year when they fit side by side in
+    `plot_px` (default: a panel of the annual totals at :data:`NOTEBOOK_PX` with a
+    legend of short site names), else every k-th year, so that plotly writes them level
+    instead of turning them on end."""
+    years = sorted(pd.unique(pd.Series(periods).astype(str)))
+    room = (NOTEBOOK_PX - 160 - 200) if plot_px is None else plot_px
+    fit = max(1, int(room // YEAR_LABEL_PX))
+    step = -(-len(years) // fit)
+    shown = years[::step]
+    return {"tickmode": "array", "tickvals": shown, "ticktext": shown,
+            "categoryorder": "array", "categoryarray": years}
 
 
 #: Line dashes of the sites past the first round of :data:`SITE_CYCLE`.
