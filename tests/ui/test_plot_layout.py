@@ -127,3 +127,26 @@ def test_panel_width_check_fails_on_panels_side_by_side():
         fig.add_trace(go.Scatter(x=[str(y) for y in range(2016, 2024)], y=[1] * 8,
                                  name="ridge (partial or flagged: not ranked)"), row=1, col=col)
     assert 8 * figures.YEAR_LABEL_PX > figures.totals_plot_px(fig)
+
+
+def test_site_explorer_tab_titles_are_whole(session):
+    """Defect (browser at 1,000 px): ipywidgets gives each tab at most 144 px and
+    shrinks it, and the site explorer's titles were cut ("deposition veloci",
+    "capture efficienc", "excluded sample").  Its tab bar carries the class whose rule
+    (in the app's own style) sizes each tab to its title and wraps the row; measured
+    in chromium at 1,000 px: 4 of 7 titles cut before, none after."""
+    import ipywidgets as widgets
+
+    from workbench.ui.apps import SiteExplorer
+    from workbench.ui.controls import WRAP_LABELS_CSS
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = SiteExplorer(session, site="ridge", years=(2021, 2021))
+    titles = list(app.tabs.titles)
+    assert max(len(t) for t in titles) * 7 + 24 > 144       # some do not fit 144 px
+    assert "wb-tabs" in app.tabs._dom_classes
+    styles = [w.value for w in app.children if isinstance(w, widgets.HTML)
+              and "wb-style" in w._dom_classes]
+    assert styles == [WRAP_LABELS_CSS]
+    assert ".wb-tabs > .lm-TabBar .lm-TabBar-tab {flex: 0 0 auto" in WRAP_LABELS_CSS
+    assert "flex-wrap: wrap" in WRAP_LABELS_CSS.split(".wb-tabs")[-1]
