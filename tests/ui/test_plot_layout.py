@@ -150,3 +150,52 @@ def test_site_explorer_tab_titles_are_whole(session):
     assert styles == [WRAP_LABELS_CSS]
     assert ".wb-tabs > .lm-TabBar .lm-TabBar-tab {flex: 0 0 auto" in WRAP_LABELS_CSS
     assert "flex-wrap: wrap" in WRAP_LABELS_CSS.split(".wb-tabs")[-1]
+
+
+def _legend_gap_px(layout):
+    """Room between the bottom of the plot and the top of a legend under it [px],
+    plotly's rules: paper units are shares of the plot's height (figure height less
+    the margins, 100 and 80 px by default); container units of the figure's."""
+    height = layout["height"]
+    margin = {"t": 100, "b": 80, **layout.get("margin", {})}
+    legend = layout["legend"]
+    if legend.get("yref") == "container":
+        assert legend.get("yanchor") == "bottom"
+        lines = legend["_lines"]
+        top = legend["y"] * height + figures.LEGEND_LINE_PX * lines
+        return margin["b"] - top
+    return -legend["y"] * (height - margin["t"] - margin["b"])
+
+
+def _legend_lines(data):
+    return sum(1 + str(t.get("name", "")).count("<br>") for t in data
+               if t.get("showlegend", True) is not False and t.get("name"))
+
+
+def test_legends_under_the_analysis_figures_clear_the_axis_title():
+    """Defect (browser at 1,000 px, critical_loads.ipynb): the legend at y = -0.2 of the
+    plot touched "N deposition [eq/ha/yr]" (the first entry's line on the axis title's
+    line).  The legend now sits at the figure's foot with a line of room per entry, and
+    the room for the tick labels and the axis title stays above it."""
+    from workbench.analysis.whatif import path_table
+    from workbench.ui.figures_analysis import AXIS_TITLE_PX, clf_spec, trend_spec
+    loads = {"cl_max_s": 950.0, "cl_min_n": 357.0, "cl_max_n": 1420.0, "cl_nut_n": 714.0}
+    parts = {"S_wet": 300.0, "S_dry": 420.0, "NOx_wet": 350.0, "NOx_dry": 300.0,
+             "NHx_wet": 450.0, "NHx_dry": 610.0}
+    path = path_table(parts, {"S": 0.8, "NOx": 0.6, "NHx": 0.6}, loads)
+    years = np.arange(2010, 2022)
+    specs = [clf_spec(loads, 720.0, 1710.0, path, "ridge", "air only"),
+             trend_spec(years, 10 - 0.3 * (years - 2010), {"slope": -0.3, "intercept": 10,
+                                                            "p_value": 0.01})]
+    for spec in specs:
+        layout = dict(spec["layout"])
+        layout["legend"] = {**layout["legend"], "_lines": _legend_lines(spec["data"])}
+        assert _legend_gap_px(layout) >= AXIS_TITLE_PX, layout["legend"]
+
+
+def test_legend_gap_sees_the_old_placement():
+    """The check above can fail: the old placement (y = -0.2 of the plot, 460 px) left
+    56 px under the plot for ticks, axis title and gap."""
+    from workbench.ui.figures_analysis import AXIS_TITLE_PX
+    old = {"height": 460, "legend": {"orientation": "h", "y": -0.2}}
+    assert _legend_gap_px(old) < AXIS_TITLE_PX
