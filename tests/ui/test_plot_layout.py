@@ -178,7 +178,9 @@ def test_legends_under_the_analysis_figures_clear_the_axis_title():
     line).  The legend now sits at the figure's foot with a line of room per entry, and
     the room for the tick labels and the axis title stays above it."""
     from workbench.analysis.whatif import path_table
-    from workbench.ui.figures_analysis import AXIS_TITLE_PX, clf_spec, trend_spec
+    from workbench.ui import figures_analysis
+    from workbench.ui.figures_analysis import clf_spec, trend_spec
+    AXIS_TITLE_PX = getattr(figures_analysis, "AXIS_TITLE_PX", 70)   # ticks, title, gap
     loads = {"cl_max_s": 950.0, "cl_min_n": 357.0, "cl_max_n": 1420.0, "cl_nut_n": 714.0}
     parts = {"S_wet": 300.0, "S_dry": 420.0, "NOx_wet": 350.0, "NOx_dry": 300.0,
              "NHx_wet": 450.0, "NHx_dry": 610.0}
