@@ -212,3 +212,83 @@ def test_every_change_of_the_site_explorer_reaches_a_new_model_unanswered(comms)
         assert fig.reopen_unless_answered(fig._last_trace_edit_id)
         _, layout, _ = _opening_state(fig.comm)
         assert layout["title"]["text"].endswith(other)
+
+
+def _drawn_message(w):
+    """The comm message a new view sends once plotly has drawn it: its trace deltas."""
+    return {"content": {"comm_id": w.comm.comm_id, "data": {
+        "method": "update", "state": {"_js2py_traceDeltas": {
+            "trace_deltas": [{"uid": t.uid} for t in w.data],
+            "trace_edit_id": w._last_trace_edit_id}}, "buffer_paths": []}},
+        "buffers": []}
+
+
+def test_a_figure_opened_anew_keeps_the_old_drawing_until_the_new_has_drawn(comms):
+    """Defect (a slow page): opened anew, the box named the new model alone, its view
+    removed the old drawing at once and stayed an empty box until plotly's module had
+    loaded and drawn (a flicker about 4 s after the change).  Under the kernel's event
+    loop the box now names the old model and the new one after it, and the old comm is
+    closed only once the new view says it has drawn (or after SWAP_S)."""
+    import asyncio
+
+    import workbench.ui.figure_open as figure_open
+    w, box = _boxed("a", [1.0, 2.0])
+    first = w.comm
+    closed = []
+    first.close = lambda *a, **k: closed.append(True)
+
+    async def swap():
+        refresh(w, go.Figure(go.Bar(x=[5.0, 6.0], y=["a", "b"]),
+                             layout={"title": {"text": "b"}}))
+        assert w.reopen_unless_answered(w._last_trace_edit_id)
+        sent = [m for m in box.comm.sent if m and m.get("method") == "update"]
+        assert sent[-1]["state"]["children"] == [
+            f"IPY_MODEL_{box.children[0].model_id}", f"IPY_MODEL_{first.comm_id}",
+            f"IPY_MODEL_{w.model_id}"]                 # old and new side by side
+        assert closed == []                            # the old drawing stays
+        await asyncio.sleep(0.02)
+        assert closed == []
+        w._handle_msg(_drawn_message(w))               # the new view has drawn
+        assert closed == [True]
+        assert len([m for m in box.comm.sent if m and m.get("method") == "update"]) \
+            == len(sent)                               # the box is not sent again
+        # a new view that never says so: the old one goes after SWAP_S
+        second = w.comm
+        second.close = lambda *a, **k: closed.append("second")
+        refresh(w, go.Figure(go.Bar(x=[7.0, 6.0], y=["a", "b"]),
+                             layout={"title": {"text": "c"}}))
+        assert w.reopen_unless_answered(w._last_trace_edit_id)
+        assert closed == [True]
+        await asyncio.sleep(0.3)
+        assert closed == [True, "second"]
+
+    wait = getattr(figure_open, "SWAP_S", None)     # (None: the code before the fix)
+    figure_open.SWAP_S = 0.2
+    try:
+        asyncio.run(swap())
+    finally:
+        figure_open.SWAP_S = wait
+    assert _opening_state(w.comm)[1]["title"] == {"text": "c"}
+
+
+def test_a_figure_in_a_tab_is_swapped_at_once(comms):
+    """A tab's children are its pages: a child more would be a page more (titles off
+    by one), so a figure in a tab is opened anew in place, the old comm closed at once."""
+    import asyncio
+
+    import ipywidgets as widgets
+    w = figure_widget(go.Figure(go.Bar(x=[1.0], y=["a"])))
+    tab = widgets.Tab([widgets.HTML("x"), w])
+    first = w.comm
+    closed = []
+    first.close = lambda *a, **k: closed.append(True)
+
+    async def swap():
+        refresh(w, go.Figure(go.Bar(x=[2.0], y=["a"])))
+        assert w.reopen_unless_answered(w._last_trace_edit_id)
+
+    asyncio.run(swap())
+    assert closed == [True]
+    sent = [m for m in tab.comm.sent if m and m.get("method") == "update"]
+    assert sent[-1]["state"]["children"][1] == f"IPY_MODEL_{w.model_id}"
+    assert len(sent[-1]["state"]["children"]) == 2

@@ -70,10 +70,14 @@ def test_nitrogen_panel_has_room_for_its_axis_title():
     net = pd.DataFrame({"site": "ridge", "period": ["2020", "2021"] * 2,
                         "element": ["S", "S", "N", "N"], "value": [30.0, 31.0, 250.0, 240.0],
                         "rankable": True, "status": "complete", "missing": ""})
-    for fig in (figures.sensitivity_curves(sweep, "x", 0.1, "mmol/m2/yr"),
-                figures.network_totals(net, "mmol/m2/yr")):
-        gap = fig.layout.xaxis2.domain[0] - fig.layout.xaxis.domain[1]
-        assert gap >= figures.PANEL_GAP - 1e-9 >= 0.15
+    fig = figures.sensitivity_curves(sweep, "x", 0.1, "mmol/m2/yr")
+    gap = fig.layout.xaxis2.domain[0] - fig.layout.xaxis.domain[1]
+    assert gap >= figures.PANEL_GAP - 1e-9 >= 0.15
+    # the network's totals: one panel above the other, the gap between them holds the
+    # sulfur panel's years and the nitrogen panel's title (about 60 px)
+    fig = figures.network_totals(net, "mmol/m2/yr")
+    gap = fig.layout.yaxis.domain[0] - fig.layout.yaxis2.domain[1]
+    assert gap * fig.layout.height >= 60
 
 
 def test_legends_of_the_velocity_and_excluded_figures_fit(session):

@@ -39,7 +39,7 @@ def test_few_sites_keep_their_open_marker_entries():
     # s01 has no partial total in _table(3): no open-marker entry of its own
     assert [t.name for t in fig.data if t.showlegend is not False] == [
         "s00", "s00 " + figures.OPEN_NAME, "s01", "s02", "s02 " + figures.OPEN_NAME]
-    assert fig.layout.height == figures.HEIGHT
+    assert fig.layout.height == figures.TOTALS_HEIGHT
 
 
 def test_thirty_ranked_sites_are_all_named():
@@ -83,7 +83,7 @@ def test_a_tall_figure_is_exported_at_its_own_height(monkeypatch, tmp_path):
     fig = figures.network_ranking_bars(network_ranking(span, "N"), "N")
     export.export_figure(fig, tmp_path / "r.png")
     export.export_figure(figures.network_totals(_table(3)), tmp_path / "t.png")
-    assert sizes == [(export.WIDTH, fig.layout.height), (export.WIDTH, export.HEIGHT)]
+    assert sizes == [(export.WIDTH, fig.layout.height), (export.WIDTH, figures.TOTALS_HEIGHT)]
 
 
 def test_a_site_without_open_markers_has_no_open_marker_entry():

@@ -141,6 +141,7 @@ class SiteExplorer(SavedText, widgets.VBox):
         pages["excluded samples"] = widgets.VBox([self.figs["excluded samples"], self.excluded_w])
         pages["gas schemes"] = self.schemes.page
         self.tabs = widgets.Tab([pages[n] for n in TABS])
+        self.tabs.add_class("wb-tabs")           # titles whole (WRAP_LABELS_CSS)
         for i, n in enumerate(TABS):
             self.tabs.set_title(i, n)
         self.progress.done("first run done")

@@ -172,7 +172,13 @@ class SensitivityExplorer(SavedText, widgets.VBox):
             names = {v: lab for lab, v in a.choices}
             shown = self.table.assign(value=self.table["value"].map(lambda v: names.get(v, v)))
             base_shown = names.get(base, base)
-        fig = figures.sensitivity_curves(shown, a.label, base_shown, unit)
+        model = None
+        if base is None:         # left to the model: that run's totals, a line per panel
+            b = self.session.sweep(a.key, [None], self.settings, site, *years, rec, unit)
+            model = {el: float(b.loc[b["total"] == f"{el}_total", "rate"].iloc[0])
+                     for el in ("S", "N")}
+        fig = figures.sensitivity_curves(shown, a.label, base_shown, unit,
+                                         model_baseline=model)
         span = f"{years[0]}" if years[0] == years[1] else f"{years[0]}-{years[1]}"
         self.shown = f"{a.label} · {site} · {rec} · {span}"
         title = f"Sensitivity of the totals to {self.shown}"
@@ -181,12 +187,6 @@ class SensitivityExplorer(SavedText, widgets.VBox):
                                        figures.TITLE_CHARS) + f"<br>{site} · {rec} · {span}")
         fig.update_layout(title=title, margin=dict(t=figures.title_room(title)))
         if base is None:
-            b = self.session.sweep(a.key, [None], self.settings, site, *years, rec, unit)
-            for col, el in enumerate(("S", "N"), start=1):
-                v = b.loc[b["total"] == f"{el}_total", "rate"].iloc[0]
-                if np.isfinite(v):
-                    fig.add_hline(y=v, line=figures.baseline_line(), row=1, col=col,
-                                  annotation_text="baseline (model)")
             self.note_w.value = "Baseline: left to the model or the catalogue (dotted line)."
         else:
             self.note_w.value = f"Baseline: {html.escape(str(base_shown))} (star)." if not source \

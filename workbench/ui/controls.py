@@ -33,7 +33,13 @@ WRAP_LABELS_CSS = ("<style>.wb-wrap-labels .widget-label {white-space: normal !i
                    "line-height: 1.15; height: auto !important;} "
                    ".wb-wrap-labels .widget-inline-hbox {height: auto !important; "
                    "min-height: var(--jp-widgets-inline-height); align-items: center;} "
-                   ".wb-years .widget-readout {min-width: 7.5em; overflow: visible;}</style>")
+                   ".wb-years .widget-readout {min-width: 7.5em; overflow: visible;} "
+                   # tab titles whole, on a second row where the row is full (ipywidgets
+                   # gives each tab 144 px at most and shrinks it: "deposition veloci",
+                   # "capture efficienc" at a 1,000 px window)
+                   ".wb-tabs > .lm-TabBar .lm-TabBar-tab {flex: 0 0 auto !important; "
+                   "max-width: none !important;} "
+                   ".wb-tabs > .lm-TabBar .lm-TabBar-content {flex-wrap: wrap;}</style>")
 #: Layout keys that never change between two figures of one kind (not resent).
 STATIC_LAYOUT = ("template",)
 

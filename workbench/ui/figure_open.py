@@ -6,6 +6,9 @@ from __future__ import annotations
 import ipywidgets as widgets
 import plotly.graph_objects as go
 
+#: Most seconds the old drawing stays beside a figure opened anew (:meth:`OpenedWhole.
+#: reopen`) when the new one never says it has drawn (a page closed meanwhile).
+SWAP_S = 60.0
 #: Seconds a figure's page has to answer an update before the figure is opened anew
 #: (:func:`workbench.ui.controls.refresh`).  A page that heard the update answers in
 #: about a second (0.1-1.2 s from the change to the redraw at load average 15 on a
@@ -82,8 +85,58 @@ class OpenedWhole(go.FigureWidget):
         boxes = _boxes_holding(self)
         if not boxes or self.comm is None:
             return False
-        self._wb_attach_new(self._wb_detach(), boxes)
+        self._wb_finish_swap()              # a swap still waiting: its old model goes now
+        old = self._wb_detach()
+        if _event_loop() is None or any(isinstance(b, _SELECTION) for b in boxes):
+            self._wb_attach_new(old, boxes)
+        else:
+            self._wb_swap_in(old, boxes)
         return True
+
+    def _wb_swap_in(self, old, boxes):
+        """Open a new comm with the current state and show its view beside the old one
+        (each box names both, the old first); the old comm is closed when the new view
+        says it has drawn (:meth:`_handle_msg`: plotly sends its trace deltas after its
+        first drawing), or after :data:`SWAP_S`.
+
+        Why: a box that named the new model alone removed the old view at once, and the
+        new one stayed an empty box until its module had loaded and drawn (about 4 s
+        after the change on a slow page: a flicker).  Closing the old comm removes its
+        view and nothing else (the boxes are not sent again: a box's view re-creates
+        every child view from the first child that differs, the new one included).
+        Tabs and accordions are swapped at once (:meth:`_wb_attach_new`): a child more
+        there is a page more, with the titles off by one."""
+        self.open()
+        new_ref = f"IPY_MODEL_{self.model_id}"
+        for box in boxes:
+            refs = []
+            for child in box.children:
+                if child is self:
+                    refs += [f"IPY_MODEL_{old.comm_id}", new_ref]
+                else:
+                    refs.append(f"IPY_MODEL_{child.model_id}")
+            box._send({"method": "update", "state": {"children": refs}, "buffer_paths": []})
+        self._trace_edit_in_process = False  # the new model holds every edit
+        self._wb_swap = old
+        _event_loop().call_later(SWAP_S, self._wb_finish_swap, old)
+
+    def _wb_finish_swap(self, old=None):
+        """Close the old comm of a swap (:meth:`_wb_swap_in`); `old`: only that one."""
+        pending = getattr(self, "_wb_swap", None)
+        if pending is None or (old is not None and pending is not old):
+            return
+        self._wb_swap = None
+        pending.close()
+
+    def _handle_msg(self, msg):
+        super()._handle_msg(msg)
+        if getattr(self, "_wb_swap", None) is None or self.comm is None:
+            return
+        content = msg.get("content", {})
+        state = content.get("data", {}).get("state", {})
+        if content.get("comm_id") == self.comm.comm_id and (
+                "_js2py_traceDeltas" in state or "_js2py_layoutDelta" in state):
+            self._wb_finish_swap()           # the new view has drawn
 
     def _wb_detach(self):
         """Take the comm off the widget (updates of the Python side then send nothing)."""
@@ -102,6 +155,19 @@ class OpenedWhole(go.FigureWidget):
             box.send_state("children")
         old.close()
         self._trace_edit_in_process = False  # the new model holds every edit
+
+
+#: Boxes whose children are pages (a child more is a page more).
+_SELECTION = (widgets.Tab, widgets.Accordion, widgets.Stack)
+
+
+def _event_loop():
+    """The running event loop (the kernel's), or None (a script, a test)."""
+    import asyncio
+    try:
+        return asyncio.get_running_loop()
+    except RuntimeError:
+        return None
 
 
 def _boxes_holding(widget) -> list:

@@ -347,7 +347,8 @@ def status_note(statuses, missing=()) -> str:
     return f" ({', '.join(bad)})" if bad else ""
 
 
-def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr", template=TEMPLATE):
+def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr", template=TEMPLATE,
+                       model_baseline=None):
     """Response of each total to one assumption, the baseline marked.
 
     Parameters
@@ -361,11 +362,18 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
         The assumption's name with its unit (x axis title).
     baseline : object
         The scenario's setting (marked by a vertical line and open markers).
+    model_baseline : dict, optional
+        ``{"S": rate, "N": rate}`` [unit]: the totals of the run whose setting is left to
+        the model or the catalogue (no `baseline` value on the x axis), drawn as a
+        dotted horizontal line in each panel and named in the legend ("baseline
+        (model)"), not by a label on the line: a label there sat on the total's curve,
+        which runs along that line wherever the total does not respond.
 
     Returns
     -------
     plotly.graph_objects.Figure
-        Six traces (S and N: wet, dry, total) and two of the baseline points.
+        Six traces (S and N: wet, dry, total) and two of the baseline points; with
+        `model_baseline`, one more trace: the legend entry of its lines.
     """
     fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"),
                         horizontal_spacing=PANEL_GAP)
@@ -397,6 +405,16 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
         fig.update_xaxes(title_text=wrap_text(label, AXIS_CHARS), row=1, col=col)
     if not cat and baseline is not None:
         fig.add_vline(x=baseline, line=baseline_line())
+    drawn = False
+    for col, el in enumerate(ELEMENTS, start=1):
+        v = (model_baseline or {}).get(el)
+        if v is not None and np.isfinite(v):
+            fig.add_hline(y=v, line=baseline_line(), row=1, col=col)
+            drawn = True
+    if drawn:                   # the lines' name: a legend entry, clear of every curve
+        fig.add_trace(go.Scatter(x=[None], y=[None], mode="lines", line=baseline_line(),
+                                 name="baseline (model)", legendgroup="baseline",
+                                 hoverinfo="skip"), row=1, col=1)
     title = wrap_text(f"Sensitivity of the totals to {label}", TITLE_CHARS)
     fig.update_layout(title=title, template=template, height=HEIGHT,
                       margin=dict(t=title_room(title)))
@@ -423,8 +441,11 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
     plotly.graph_objects.Figure
         Per site and element: one trace of rankable years and one of the others.
     """
-    fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"),
-                        horizontal_spacing=PANEL_GAP)
+    # one panel above the other, each the figure's width: side by side beside the
+    # legend, each panel had ~150 px at a 1,000 px window and plotly turned the years on
+    # end (a browser pass of the demo's 8 years)
+    fig = make_subplots(rows=2, cols=1, subplot_titles=("sulfur", "nitrogen"),
+                        vertical_spacing=TOTALS_GAP)
     sites = list(pd.unique(table["site"]))
     # more sites than colours: each round of the colours gets its own dash, so that no
     # two sites look alike; the open markers share one note instead of a legend entry
@@ -458,12 +479,15 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
                     customdata=why,
                     hovertemplate=(f"{site} {el} total %{{x}}: %{{y:.3g}} "
                                    f"{axis_text(unit, element=el)}<br>%{{customdata}}"
-                                   "<extra></extra>")), row=1, col=col)
-        fig.update_yaxes(title_text=axis_text(unit, element=el), row=1, col=col, rangemode="tozero")
-        fig.update_xaxes(title_text="year", type="category", row=1, col=col)
+                                   "<extra></extra>")), row=col, col=1)
+        fig.update_yaxes(title_text=axis_text(unit, element=el), row=col, col=1,
+                         rangemode="tozero")
+        fig.update_xaxes(type="category", row=col, col=1, **year_ticks(table["period"]))
+    fig.update_xaxes(title_text="year", row=2, col=1)
     fig.update_layout(title="Annual totals of the network (each site on its own surface)",
                       template=template, legend_title="site",
-                      height=legend_height(len(sites) + 1) if many else HEIGHT)
+                      height=legend_height(len(sites) + 1, TOTALS_HEIGHT) if many
+                      else TOTALS_HEIGHT)
     if many:
         # one legend group per site: plotly's 10 px gap between groups made 30 entries
         # half as tall again as the room for them (a scroll bar after 22 sites)
@@ -476,12 +500,54 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
 
 
 #: Legend name of a site's years left out of its whole-span total (after the site's id).
-OPEN_NAME = "(open: not in the whole-span total)"
+#: On two lines: on one, a site's entry made the legend ~250 px wide.
+OPEN_NAME = "(open: not in the<br>whole-span total)"
 #: The note of the markers of :func:`network_totals` with many sites (no legend entry
 #: per site for the open markers): the ranking's rule in one line.
 MARKER_NOTE = ("● a year in the whole-span total that ranks the site (◆ flagged: used "
                "with a caution) · ○ open: a year left out of it (partial or failing "
                "completeness)")
+#: Height of the network's annual totals, two panels one above the other [px].
+TOTALS_HEIGHT = 640
+#: Gap between the sulfur and the nitrogen panel of the annual totals [share of the
+#: height]: room for the sulfur panel's years and the nitrogen panel's title.
+TOTALS_GAP = 0.12
+#: Width of a notebook's output area in a 1,000 px browser window, JupyterLab's side
+#: bar closed [px] (measured in chromium, JupyterLab 4.6); the width at which the
+#: annual totals must write their years level.
+NOTEBOOK_PX = 800
+#: Room of a year label on a category axis [px]: four digits at plotly's 12 px font
+#: (~7 px each) and a gap; plotly turns labels on end when they do not fit.
+YEAR_LABEL_PX = 40
+
+
+def totals_plot_px(fig, notebook_px: int = NOTEBOOK_PX) -> float:
+    """Width of a panel's plot area of :func:`network_totals` [px] in an output area
+    `notebook_px` wide: the figure's width less plotly's margins (80 px each side,
+    the template's) and the legend (its longest line at ~7 px a character, and 40 px
+    of symbol and padding)."""
+    import re
+    names = [t.name for t in fig.data if t.showlegend is not False] + ["site"]
+    longest = max(len(line) for n in names for line in re.split("<br>", str(n)))
+    legend = 40 + 7 * longest
+    dom = fig.layout.xaxis.domain or (0, 1)
+    return (notebook_px - 160 - legend) * (dom[1] - dom[0])
+
+
+def year_ticks(periods, plot_px: float | None = None) -> dict:
+    """Ticks of a category axis of years: every year when they fit side by side in
+    `plot_px` (default: a panel of the annual totals at :data:`NOTEBOOK_PX` with a
+    legend of short site names), else every k-th year, so that plotly writes them level
+    instead of turning them on end."""
+    years = sorted(pd.unique(pd.Series(periods).astype(str)))
+    room = (NOTEBOOK_PX - 160 - 200) if plot_px is None else plot_px
+    fit = max(1, int(room // YEAR_LABEL_PX))
+    step = -(-len(years) // fit)
+    shown = years[::step]
+    return {"tickmode": "array", "tickvals": shown, "ticktext": shown,
+            "categoryorder": "array", "categoryarray": years}
+
+
 #: Line dashes of the sites past the first round of :data:`SITE_CYCLE`.
 SITE_DASHES = ("solid", "dot", "dash", "dashdot", "longdash")
 #: Height of a bar of the ranking, tick label included [px] (every site named: plotly

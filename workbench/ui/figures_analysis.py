@@ -122,8 +122,30 @@ def clf_spec(loads: dict, s_dep=None, n_dep=None, path=None, title="", mode_text
     layout = {"title": {"text": title or "Critical load function of acidity"},
               "xaxis": {"title": {"text": "N deposition [eq/ha/yr]"}, "range": [0, xmax]},
               "yaxis": {"title": {"text": "S deposition [eq/ha/yr]"}, "range": [0, ymax]},
-              "height": HEIGHT, "legend": {"orientation": "h", "y": -0.2}}
+              "height": HEIGHT}
+    legend_below(layout, data)
     return {"data": data, "layout": layout}
+
+
+#: Room under a plot for its x tick labels and axis title [px] (plotly's 12 px ticks,
+#: the title's standoff and line, measured in chromium: ~50 px, and a gap).
+AXIS_TITLE_PX = 70
+
+
+def legend_below(layout: dict, data: list) -> dict:
+    """Put a horizontal legend at the foot of the figure, under the x axis title, with
+    room for one line per entry (a line more per ``<br>``); the figure grows by that
+    room.  At ``y = -0.2`` of the plot (plotly's paper units) the legend's first line
+    sat on "N deposition [eq/ha/yr]" in a 460 px figure: the gap shrinks with the plot.
+    Changes and returns `layout`."""
+    lines = sum(1 + str(t.get("name", "")).count("<br>") for t in data
+                if t.get("showlegend", True) is not False and t.get("name"))
+    room = LEGEND_LINE_PX * lines + 10
+    layout["legend"] = {"orientation": "h", "yref": "container", "y": 0,
+                        "yanchor": "bottom", "x": 0, "xanchor": "left"}
+    layout.setdefault("margin", {})["b"] = AXIS_TITLE_PX + room
+    layout["height"] = layout.get("height", HEIGHT) + room
+    return layout
 
 
 def clf_figure(loads, s_dep=None, n_dep=None, path=None, title="", mode_text="",
@@ -195,9 +217,9 @@ def trend_spec(years, values, row=None, status=None, title="", unit="kg/ha/yr") 
     layout = {"title": {"text": title},
               "xaxis": {"title": {"text": "year"}, "dtick": 1},
               "yaxis": {"title": {"text": unit}},
-              "height": HEIGHT + LEGEND_LINE_PX * lines + 30 * title.count("<br>"),
-              "margin": {"t": 60 + 30 * title.count("<br>")},
-              "legend": {"orientation": "h", "y": -0.2}}
+              "height": HEIGHT + 30 * title.count("<br>"),
+              "margin": {"t": 60 + 30 * title.count("<br>")}}
+    legend_below(layout, data)          # a line per entry and per <br> of a name
     return {"data": data, "layout": layout}
 
 
