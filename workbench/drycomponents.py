@@ -188,6 +188,27 @@ def _rows_by_cell(flag, r, periods, n_p):
     return g.groupby("cell")["name"].agg(list), each
 
 
+def _pso4_cell_notes(rows: dict, periods, sites, key: str, words) -> np.ndarray:
+    """Words per (site, period) naming the pSO4 samples flagged by ``rows[key]`` (bool
+    per pSO4 row); "" elsewhere. ``words(n, n_all, names, sub)`` writes a cell's
+    sentence from the number flagged, the number of pSO4 samples of the cell, their
+    start dates and the words of the censored substitute."""
+    n_s, n_p = len(sites), len(periods)
+    out = np.full((n_s, n_p), "", dtype=object)
+    flag = rows.get(key)
+    r = rows["species"].get("pSO4")
+    if flag is None or r is None or not np.any(flag):
+        return out
+    agg, each = _rows_by_cell(np.asarray(flag, bool), r, periods, n_p)
+    si = np.asarray(r["site_index"])
+    sub = rows.get("pSO4_na_substitute") or CENSORED_WORDS["half"]
+    for cell, names in agg.items():          # one entry per (site, period) cell named
+        s_, p_ = divmod(int(cell), n_p)
+        n_all = int((each[:, p_] & (si == s_)).sum())
+        out[s_, p_] = words(len(names), n_all, ", ".join(names), sub)
+    return out
+
+
 def censored_na_notes(rows: dict, periods, sites) -> np.ndarray:
     """Words per (site, period) naming the pSO4 samples whose sea-salt sulfate stands on
     a pNa below detection (``pSO4_na_censored`` of :func:`_nss_particles`); "" elsewhere.
@@ -200,23 +221,11 @@ def censored_na_notes(rows: dict, periods, sites) -> np.ndarray:
     periods : pandas.DataFrame
     sites : sequence of str
     """
-    n_s, n_p = len(sites), len(periods)
-    out = np.full((n_s, n_p), "", dtype=object)
-    flag = rows.get("pSO4_na_censored")
-    r = rows["species"].get("pSO4")
-    if flag is None or r is None or not np.any(flag):
-        return out
-    agg, each = _rows_by_cell(np.asarray(flag, bool), r, periods, n_p)
-    si = np.asarray(r["site_index"])
-    sub = rows.get("pSO4_na_substitute") or CENSORED_WORDS["half"]
-    for cell, names in agg.items():          # one entry per (site, period) cell named
-        s_, p_ = divmod(int(cell), n_p)
-        n_all = int((each[:, p_] & (si == s_)).sum())
-        out[s_, p_] = (f"pNa below detection in {len(names)} of {n_all} pSO4 samples (from "
-                       f"{', '.join(names)}): their sea-salt sulfate from {sub} "
-                       "(air_censored), drawn with the spread of a value between 0 and the "
-                       "limit in the Monte Carlo")
-    return out
+    return _pso4_cell_notes(rows, periods, sites, "pSO4_na_censored",
+                            lambda n, n_all, names, sub: (
+        f"pNa below detection in {n} of {n_all} pSO4 samples (from {names}): their "
+        f"sea-salt sulfate from {sub} (air_censored), drawn with the spread of a value "
+        "between 0 and the limit in the Monte Carlo"))
 
 
 def censored_nss_notes(rows: dict, periods, sites) -> np.ndarray:
@@ -232,23 +241,11 @@ def censored_nss_notes(rows: dict, periods, sites) -> np.ndarray:
     periods : pandas.DataFrame
     sites : sequence of str
     """
-    n_s, n_p = len(sites), len(periods)
-    out = np.full((n_s, n_p), "", dtype=object)
-    flag = rows.get("pSO4_nss_censored")
-    r = rows["species"].get("pSO4")
-    if flag is None or r is None or not np.any(flag):
-        return out
-    agg, each = _rows_by_cell(np.asarray(flag, bool), r, periods, n_p)
-    si = np.asarray(r["site_index"])
-    sub = rows.get("pSO4_na_substitute") or CENSORED_WORDS["half"]
-    for cell, names in agg.items():          # one entry per (site, period) cell named
-        s_, p_ = divmod(int(cell), n_p)
-        n_all = int((each[:, p_] & (si == s_)).sum())
-        out[s_, p_] = (f"pSO4 below detection in {len(names)} of {n_all} pSO4 samples (from "
-                       f"{', '.join(names)}): their non-sea-salt pSO4 from {sub} "
-                       "(air_censored) of the limit less the sea-salt sulfate of their pNa "
-                       "(0 where the sea salt reaches the limit)")
-    return out
+    return _pso4_cell_notes(rows, periods, sites, "pSO4_nss_censored",
+                            lambda n, n_all, names, sub: (
+        f"pSO4 below detection in {n} of {n_all} pSO4 samples (from {names}): their "
+        f"non-sea-salt pSO4 from {sub} (air_censored) of the limit less the sea-salt "
+        "sulfate of their pNa (0 where the sea salt reaches the limit)"))
 
 
 def total_used_notes(rows: dict, periods, sites) -> np.ndarray:
