@@ -178,7 +178,7 @@ def draws_in_force(options) -> str:
             f"({options.draws} draws, seed {options.seed}).")
 
 
-def report_section(table, to_html, options=None) -> list:
+def report_section(table, to_html, options=None, text_options=None) -> list:
     """HTML parts of the report: the 5-95 % range of every total (none without draws).
 
     Parameters
@@ -189,6 +189,9 @@ def report_section(table, to_html, options=None) -> list:
         DataFrame -> HTML table text (the report's own).
     options : UncertaintyOptions, optional
         The options of the draws: named under the text (:func:`draws_in_force`).
+    text_options : UncertaintyOptions, optional
+        The options the text of what a range holds is written for (:func:`report_text`;
+        default `options`).
     """
     import html
     if "flux_kg_ha_yr_p05" not in table:
@@ -201,11 +204,12 @@ def report_section(table, to_html, options=None) -> list:
                                       "flux_kg_ha_yr_p50": "50 %", "flux_kg_ha_yr_p95": "95 %",
                                       "range_note": "the range covers"})
     return ["<h2>Uncertainty: 5-95 % range of every total [kg/ha/yr of S or N]</h2>",
-            "<p>" + html.escape(report_text(options)) + "</p>",
+            "<p>" + html.escape(report_text(options if text_options is None
+                                            else text_options)) + "</p>",
             "<p class='draws'>" + html.escape(draws_in_force(options)) + "</p>", to_html(frame)]
 
 
-def report_text(options=None) -> str:
+def report_text(options) -> str:
     """What the ranges hold and leave out, as the report says it, for the options the
     draws were made with (docs/methods_uncertainty.md, "What a range covers").
 
@@ -219,12 +223,10 @@ def report_text(options=None) -> str:
 
     Parameters
     ----------
-    options : UncertaintyOptions, optional
-        The options of the draws (None: the defaults).
+    options : UncertaintyOptions
+        The options of the draws (:func:`workbench.analysis.uncertainty.report_section`
+        gives the defaults where a run has none).
     """
-    if options is None:
-        from .uncertainty import UncertaintyOptions
-        options = UncertaintyOptions()
     shared = getattr(options, "systematic_errors", "shared") == "shared"
     site_vd = float(getattr(options, "vd_site_gsd", 1.0)) > 1.0
     pack = bool(getattr(options, "lab_bias_filter_pack", False))

@@ -55,8 +55,9 @@ from .layer import DRY_SPECIES, LinearLayer, linear_layer
 # the factors of the draws, named by what they draw for (site, year, sample)
 from .noise import (SAMPLE_STREAM, YEAR_STREAM, SiteNoise, _normal_factor,  # noqa: F401
                     _stream_key, keyed_normal_factor, site_noise)
+from . import quantile_tables as _quantile_tables
 from .quantile_tables import (QUANTILES, SUFFIXES, TOTALS, quantile_table,  # noqa: F401
-                              range_note, report_section, summary_dataset,
+                              range_note, summary_dataset,
                               summary_range_notes)
 # the wet side of a draw (wet_ratios, _gauge_by_piece were defined here before)
 from .wetdraws import _gauge_by_piece, _safe_ratio, wet_ratios
@@ -706,3 +707,12 @@ def with_uncertainty(result, study, scenario):
     new.budget.attrs["uncertainty"] = json.dumps(opt.to_dict(), sort_keys=True)
     return new
 
+
+def report_section(table, to_html, options=None) -> list:
+    """HTML parts of the report: the 5-95 % range of every total (none without draws),
+    :func:`workbench.analysis.quantile_tables.report_section` with the text of what a
+    range holds written for `options`, or for the default :class:`UncertaintyOptions`
+    where a run has none (quantile_tables does not import this module: no cycle)."""
+    return _quantile_tables.report_section(
+        table, to_html, options,
+        text_options=UncertaintyOptions() if options is None else options)
