@@ -15,7 +15,8 @@ import pytest
 import xarray as xr
 
 from workbench.analysis.exceedance import (ExceedanceError, acidity_exceedance,
-                                           exceedance_from_totals, exceedance_probability)
+                                           exceedance_from_totals, exceedance_probability,
+                                           nutrient_n_exceedance)
 
 CLF = (950.0, 357.0, 1420.0)        # the demo ridge function: CLmaxS, CLminN, CLmaxN
 
@@ -49,6 +50,14 @@ def test_infinite_load_is_refused():
         acidity_exceedance(1200.0, 100.0, np.inf, 357.0, 1420.0)
     with pytest.raises(ExceedanceError, match="cl_max_n = inf is not finite"):
         acidity_exceedance(1200.0, 100.0, 950.0, 357.0, np.inf)
+
+    # nutrient N alike: an infinite CLnutN gave 0 ("not exceeded"), a complete-looking
+    # zero; NaN (no load) still gives NaN
+    with pytest.raises(ExceedanceError, match="cl_nut_n = inf is not finite"):
+        nutrient_n_exceedance(1713.0, np.inf)
+    with pytest.raises(ExceedanceError, match=r"cl_nut_n = -5 \(at position 1\)"):
+        nutrient_n_exceedance(np.array([1713.0, 900.0]), np.array([714.0, -5.0]))
+    assert np.isnan(nutrient_n_exceedance(1713.0, np.nan))
 
 
 # ------------------------------------------------------------------ the table's rows

@@ -217,11 +217,23 @@ def nutrient_n_exceedance(n_dep, cl_nut_n):
     ICP Modelling and Mapping Manual (UBA, Dessau), exceedance of the critical load of
     nutrient nitrogen.
 
+    Raises
+    ------
+    ExceedanceError
+        For a negative or infinite load (an infinite CLnutN gave an exceedance of 0,
+        "not exceeded", where :func:`acidity_exceedance` refuses an infinite load;
+        2026-12 audit) or a negative deposition.  NaN (no load) passes and gives NaN.
+
     >>> float(nutrient_n_exceedance(1713.0, 714.0))
     999.0
     """
-    if np.any(np.asarray(cl_nut_n) < 0):
-        raise ExceedanceError("negative critical load cl_nut_n; expected >= 0 eq/ha/yr")
+    v = np.asarray(cl_nut_n, dtype=float)
+    for bad, what in ((v < 0, "negative critical load cl_nut_n = {:g}"),
+                      (np.isinf(v), "critical load cl_nut_n = {:g} is not finite")):
+        if np.any(bad):
+            raise ExceedanceError(
+                f"{what.format(v[bad].flat[0])} (at position {int(np.flatnonzero(bad)[0])}); "
+                "expected a finite number >= 0 eq/ha/yr, or NaN for none")
     _check_deposition(0.0, n_dep)
     return np.maximum(n_dep - cl_nut_n, 0.0)
 
