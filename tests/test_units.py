@@ -83,6 +83,24 @@ def test_deposition_units():
     assert units.element_deposition_in(1.0 / (14.007e-3 * 1e4), "N", "eq_ha") == pytest.approx(71.39, rel=1e-3)
 
 
+@pytest.mark.parametrize("element, eq_per_mol", [("S", 2), ("N", 1)])
+def test_one_kg_per_ha_in_equivalents_from_iupac_molar_masses(element, eq_per_mol):
+    """1 kg S/ha = 2 x 1000 / 32.06 = 62.4 eq/ha and 1 kg N/ha = 1000 / 14.007 = 71.4
+    eq/ha: computed here from periodictable's standard atomic weights (IUPAC), with 2 eq
+    per mol S (sulfate, SO4 2-) and 1 per mol N (NO3-, NH4+) (common practice of
+    critical-load work), and taken through the package's kg -> mol -> eq conversions
+    both ways (mmol/m2 in between), so a molar mass or a factor of 10 slipped anywhere
+    shows."""
+    pt = pytest.importorskip("periodictable")
+    mass = getattr(pt, element).mass                            # g/mol
+    mol_m2 = 1.0 / (mass * 1e-3 * units.M2_PER_HA)             # 1 kg/ha in mol/m2
+    eq = units.element_deposition_in(mol_m2, element, "eq_ha")
+    assert eq == pytest.approx(eq_per_mol * 1000.0 / mass, rel=1e-4)   # atomic-weight rounding
+    assert units.element_deposition_in(mol_m2, element, "kg_ha") == pytest.approx(1.0, rel=1e-4)
+    assert units.element_deposition_in(mol_m2, element, "keq_ha") == pytest.approx(eq / 1e3)
+    assert round(eq, 1) == {"S": 62.4, "N": 71.4}[element]
+
+
 def test_temperature_and_pressure():
     assert units.convert_plain(20.0, "degC", "K") == pytest.approx(293.15)
     assert units.convert_plain(1013.25, "hPa", "Pa") == pytest.approx(sc.atm)

@@ -15,7 +15,8 @@ import pytest
 import xarray as xr
 
 from workbench.analysis.exceedance import (ExceedanceError, acidity_exceedance,
-                                           exceedance_from_totals, exceedance_probability)
+                                           exceedance_from_totals, exceedance_probability,
+                                           nutrient_n_exceedance)
 
 CLF = (950.0, 357.0, 1420.0)        # the demo ridge function: CLmaxS, CLminN, CLmaxN
 
@@ -49,6 +50,14 @@ def test_infinite_load_is_refused():
         acidity_exceedance(1200.0, 100.0, np.inf, 357.0, 1420.0)
     with pytest.raises(ExceedanceError, match="cl_max_n = inf is not finite"):
         acidity_exceedance(1200.0, 100.0, 950.0, 357.0, np.inf)
+
+    # nutrient N alike: an infinite CLnutN gave 0 ("not exceeded"), a complete-looking
+    # zero; NaN (no load) still gives NaN
+    with pytest.raises(ExceedanceError, match="cl_nut_n = inf is not finite"):
+        nutrient_n_exceedance(1713.0, np.inf)
+    with pytest.raises(ExceedanceError, match=r"cl_nut_n = -5 \(at position 1\)"):
+        nutrient_n_exceedance(np.array([1713.0, 900.0]), np.array([714.0, -5.0]))
+    assert np.isnan(nutrient_n_exceedance(1713.0, np.nan))
 
 
 # ------------------------------------------------------------------ the table's rows
@@ -86,7 +95,7 @@ def test_partial_deposition_never_gives_a_complete_looking_zero():
     assert np.isnan(t.loc["2020", "ex_nutrient_n_eq_ha_yr"])
     assert t.loc["2021", "ex_acidity_eq_ha_yr"] == pytest.approx(250.0)
     assert t.loc["2021", "region"] == 1
-    assert "exceedances are lower bounds" in t.loc["2021", "note"]
+    assert "acidity exceedance is a lower bound" in t.loc["2021", "note"]   # ExnutN: not determined
     assert t.loc["2022", "ex_acidity_eq_ha_yr"] == 0.0 and t.loc["2022", "status"] == "complete"
     assert t.loc["2023", "ex_acidity_eq_ha_yr"] == 0.0 and t.loc["2023", "status"] == "flagged"
     assert np.isnan(t.loc["2024", "ex_acidity_eq_ha_yr"]) and t.loc["2024", "region"] == -1
@@ -94,6 +103,35 @@ def test_partial_deposition_never_gives_a_complete_looking_zero():
     # the rule: no row whose total is partial or missing shows an exceedance of 0
     bad = t[(t["status"] != "complete") & (t["ex_acidity_eq_ha_yr"] == 0.0)]
     assert list(bad.index) == ["2023"]
+
+
+def test_a_partial_s_total_leaves_the_nutrient_n_exceedance_determined():
+    """Nutrient N rests on the N total alone (ExnutN = max(N - CLnutN, 0), ICP Modelling
+    and Mapping Manual): a partial S (SO2 not measured) beside a complete N left a
+    nutrient-N exceedance of 0 "not determined" (NaN), and its probability too.  The
+    acidity exceedance, which rests on S as well, stays not determined at 0."""
+    t = _totals([("2021", 300.0, 500.0, "partial", "complete", ""),     # N 500 < 714
+                 ("2022", 300.0, 900.0, "partial", "complete", "")])    # N 900 > 714
+    t["s_missing"] = "SO2"
+    r = exceedance_from_totals(t, _catalogue()).set_index("period")
+    assert r.loc["2021", "ex_nutrient_n_eq_ha_yr"] == 0.0                # determined: N complete
+    assert np.isnan(r.loc["2021", "ex_acidity_eq_ha_yr"]) and r.loc["2021", "region"] == -1
+    assert "acidity exceedance not determined" in r.loc["2021", "note"]
+    assert "nutrient-N exceedance not determined" not in r.loc["2021", "note"]
+    # 2022: S 300 < 950, N 900 < 1420 and below the sloping part (1063 x 300 + 950 x 900
+    # < 950 x 1420): acidity 0 on a partial S, not determined; nutrient N 900 - 714 =
+    # 186, not a lower bound (N complete)
+    assert r.loc["2022", "ex_nutrient_n_eq_ha_yr"] == pytest.approx(186.0)
+    assert "lower bound" not in r.loc["2022", "note"]
+    draws = xr.Dataset({k: (("draw", "site", "receptor", "period"), v[:, None, None, :])
+                        for k, v in (("s_dep_eq_ha_yr", np.full((4, 2), 300.0)),
+                                     ("n_dep_eq_ha_yr", np.array([[500.0, 900.0]] * 4)))},
+                       coords={"site": ["alpha"], "receptor": ["grass"],
+                               "period": ["2021", "2022"]})
+    p = exceedance_probability(r.reset_index(), draws, r.attrs["lower_bound"],
+                               r.attrs["lower_bound_n"])
+    assert p.loc[0, "p_exceed_nutrient_n"] == 0.0 and p.loc[1, "p_exceed_nutrient_n"] == 1.0
+    assert np.isnan(p.loc[0, "p_exceed_acidity"])
 
 
 def test_net_emission_gives_no_exceedance_and_no_crash():

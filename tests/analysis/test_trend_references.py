@@ -96,3 +96,52 @@ def test_percent_slope_is_relative_to_the_sen_line_at_the_median_year():
     level = row["intercept"] + row["sen_slope_per_yr"] * np.median(years)
     assert level == pytest.approx(np.median(x), rel=1e-12)
     assert row["sen_slope_pct_per_yr"] == pytest.approx(100 * row["sen_slope_per_yr"] / level)
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3])
+def test_several_values_per_year_and_times_out_of_order_scipy(seed):
+    """Two values of one year (a series with two rows in a year, the per-series path of
+    trend_table) and times not in order: S is Kendall's score between times and values,
+    a pair of the same time scoring 0 (Gilbert 1987, section 16.4.1, from memory), and
+    Var(S) carries the ties in both (Kendall 1975, ch. 4).  Reference:
+    scipy.stats.kendalltau(t, x, variant="b", method="asymptotic"), whose tau-b is S /
+    sqrt((N - T_t)(N - T_x)) and whose p is that of S / sqrt(Var S) (no continuity
+    correction), and scipy.stats.theilslopes, which leaves out pairs of equal times.
+    The old code scored a same-year pair by its values, took the rows' order for the
+    times' and gave the slope's interval an infinite end."""
+    rng = np.random.default_rng(seed)
+    n = 16
+    t = rng.integers(2000, 2011, n).astype(float)          # repeated years, shuffled
+    x = np.round(rng.normal(0, 1, n) + 0.3 * (t - 2000))   # ties among the values too
+    r = mann_kendall(x, t)
+    ref = stats.kendalltau(t, x, variant="b", method="asymptotic")
+    pairs = n * (n - 1) / 2
+    tie_t = sum(c * (c - 1) / 2 for c in np.unique(t, return_counts=True)[1])
+    tie_x = sum(c * (c - 1) / 2 for c in np.unique(x, return_counts=True)[1])
+    assert r.s == pytest.approx(ref.statistic * np.sqrt((pairs - tie_t) * (pairs - tie_x)),
+                                abs=1e-9)
+    z_ref = stats.norm.isf(ref.pvalue / 2.0)
+    assert r.var_s == pytest.approx((r.s / z_ref) ** 2, rel=1e-9)
+    assert r.slope == pytest.approx(stats.theilslopes(x, t).slope, rel=1e-12)
+    assert np.isfinite(r.slope_low) and np.isfinite(r.slope_high)
+    assert r.slope_low <= r.slope <= r.slope_high
+    # the order of the rows does not matter
+    o = rng.permutation(n)
+    r2 = mann_kendall(x[o], t[o])
+    assert (r2.s, r2.slope) == (r.s, r.slope) and r2.var_s == pytest.approx(r.var_s)
+
+
+def test_a_year_twice_in_a_series_gives_a_finite_interval():
+    """trend_table's per-series path (a series with two rows in one year): the interval
+    of Sen's slope had an infinite upper end (a slope over 0 years)."""
+    import pandas as pd
+    years = np.array([2005, 2006, 2007, 2008, 2008, 2009, 2010, 2011, 2012, 2013, 2014])
+    x = 12.0 - 0.4 * (years - 2005) + np.array([.3, -.2, .1, 0, .4, .2, -.1, .3, -.3, 0, .1])
+    rows = pd.DataFrame({"site": "a", "receptor": "grass", "element": "S", "pathway": "wet",
+                         "species": "SO4", "period": years.astype(str),
+                         "period_start": pd.to_datetime([f"{y}-01-01" for y in years]),
+                         "flux_kg_ha_yr": x, "status": "complete"})
+    row = trend_table(rows).iloc[0]
+    assert np.isfinite(row["slope_high_per_yr"]) and np.isfinite(row["slope_low_per_yr"])
+    assert row["sen_slope_per_yr"] == pytest.approx(stats.theilslopes(x, years).slope)
+    assert row["s"] == mann_kendall(x, years.astype(float)).s

@@ -217,11 +217,23 @@ def nutrient_n_exceedance(n_dep, cl_nut_n):
     ICP Modelling and Mapping Manual (UBA, Dessau), exceedance of the critical load of
     nutrient nitrogen.
 
+    Raises
+    ------
+    ExceedanceError
+        For a negative or infinite load (an infinite CLnutN gave an exceedance of 0,
+        "not exceeded", where :func:`acidity_exceedance` refuses an infinite load;
+        2026-12 audit) or a negative deposition.  NaN (no load) passes and gives NaN.
+
     >>> float(nutrient_n_exceedance(1713.0, 714.0))
     999.0
     """
-    if np.any(np.asarray(cl_nut_n) < 0):
-        raise ExceedanceError("negative critical load cl_nut_n; expected >= 0 eq/ha/yr")
+    v = np.asarray(cl_nut_n, dtype=float)
+    for bad, what in ((v < 0, "negative critical load cl_nut_n = {:g}"),
+                      (np.isinf(v), "critical load cl_nut_n = {:g} is not finite")):
+        if np.any(bad):
+            raise ExceedanceError(
+                f"{what.format(v[bad].flat[0])} (at position {int(np.flatnonzero(bad)[0])}); "
+                "expected a finite number >= 0 eq/ha/yr, or NaN for none")
     _check_deposition(0.0, n_dep)
     return np.maximum(n_dep - cl_nut_n, 0.0)
 
@@ -299,14 +311,18 @@ def exceedance_table(result, catalogue) -> pd.DataFrame:
     draws = annual_total_draws(result)
     if draws is None:
         return t
-    return pd.concat([t, exceedance_probability(t, draws, t.attrs["lower_bound"])], axis=1)
+    return pd.concat([t, exceedance_probability(t, draws, t.attrs["lower_bound"],
+                                                t.attrs["lower_bound_n"])], axis=1)
 
 
-def _lower_bound(totals: pd.DataFrame) -> np.ndarray:
-    """Rows whose S or N total lacks a component (status ``partial``, or components
-    named missing): the deposition, and so every exceedance, is a lower bound."""
+def _lower_bound(totals: pd.DataFrame, elements=("s", "n")) -> np.ndarray:
+    """Rows whose total of one of `elements` lacks a component (status ``partial``, or
+    components named missing): that deposition, and so each exceedance computed from
+    it, is a lower bound.  The acidity exceedance rests on S and N, the nutrient-N one
+    on N alone (a partial S total left a nutrient-N exceedance of 0 "not determined";
+    2026-12 audit)."""
     out = np.zeros(len(totals), bool)
-    for el in ("s", "n"):
+    for el in elements:
         out |= totals[f"{el}_status"].astype(str).eq("partial").to_numpy()
         out |= totals[f"{el}_missing"].fillna("").astype(str).ne("").to_numpy() & \
             totals[f"{el}_dep_eq_ha_yr"].notna().to_numpy()
@@ -419,9 +435,10 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
     ex = acidity_exceedance(ok_s, ok_n, *(t[k].to_numpy(float) for k in ACIDITY_KEYS))
     nut = nutrient_n_exceedance(np.where(n_dep < 0, np.nan, n_dep),
                                 t[NUTRIENT_KEY].to_numpy(float))
-    lower = _lower_bound(t)
+    lower = _lower_bound(t)                   # S or N partial: the acidity exceedance
+    lower_n = _lower_bound(t, ("n",))         # N partial: the nutrient-N exceedance
     acid_undetermined = not_determined(ex.exceedance, lower)
-    nut_undetermined = not_determined(nut, lower)
+    nut_undetermined = not_determined(nut, lower_n)
     t["ex_acidity_eq_ha_yr"] = np.where(acid_undetermined, np.nan, ex.exceedance)
     t["region"] = np.where(acid_undetermined, -1, ex.region).astype(np.int8)
     t["ex_nutrient_n_eq_ha_yr"] = np.where(nut_undetermined, np.nan, nut)
@@ -439,9 +456,13 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
                     ["exceedances not determined (0 on the partial deposition)",
                      "acidity exceedance not determined (0 on the partial deposition)",
                      "nutrient-N exceedance not determined (0 on the partial deposition)"], "")
-    some = (~acid_undetermined & np.isfinite(ex.exceedance)) | (~nut_undetermined & np.isfinite(nut))
-    bound = _join(np.where(lower & some, "exceedances are lower bounds (deposition partial)", ""),
-                  und)
+    acid_lb = lower & ~acid_undetermined & np.isfinite(ex.exceedance)
+    nut_lb = lower_n & ~nut_undetermined & np.isfinite(nut)
+    bound = _join(np.select([acid_lb & nut_lb, acid_lb, nut_lb],
+                            ["exceedances are lower bounds (deposition partial)",
+                             "acidity exceedance is a lower bound (deposition partial)",
+                             "nutrient-N exceedance is a lower bound (N deposition partial)"],
+                            ""), und)
     note = _join(pd.Series(np.where(none, NO_CRITICAL_LOADS, ""), dtype=object),
                  note, pd.Series(bound, dtype=object), pd.Series(net_note, dtype=object),
                  pd.Series([sea] * len(t), dtype=object), pd.Series(no_acid, dtype=object),
@@ -452,6 +473,7 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
         "s_reduction_eq_ha_yr", "n_reduction_eq_ha_yr", "note"]
     t = t[list(EXCEEDANCE_COLUMNS) + extra].reset_index(drop=True)
     t.attrs["lower_bound"] = lower
+    t.attrs["lower_bound_n"] = lower_n
     return t
 
 
@@ -462,7 +484,7 @@ DRAW_SUFFIXES = ("_p05", "_p50", "_p95")
 
 
 def exceedance_probability(table: pd.DataFrame, draws: xr.Dataset,
-                           lower_bound=None) -> pd.DataFrame:
+                           lower_bound=None, lower_bound_n=None) -> pd.DataFrame:
     """Probability of exceedance and quantiles, from Monte Carlo draws of S and N.
 
     Parameters
@@ -482,7 +504,9 @@ def exceedance_probability(table: pd.DataFrame, draws: xr.Dataset,
         of the draws whose exceedance is > 0 [1]), the 5, 50 and 95 % quantiles of
         ``ex_acidity_eq_ha_yr``, ``s_dep_eq_ha_yr`` and ``n_dep_eq_ha_yr``
         [eq ha-1 yr-1].  NaN where the row has no draws or a draw is NaN or negative
-        (net emission).
+        (net emission), and where a 0 rests on a partial deposition: `lower_bound`
+        (bool per row: the S or N total is partial) for acidity, `lower_bound_n` (the N
+        total is partial; default `lower_bound`) for nutrient N.
 
     Notes
     -----
@@ -507,11 +531,12 @@ def exceedance_probability(table: pd.DataFrame, draws: xr.Dataset,
     ex_n = nutrient_n_exceedance(np.where(n < 0, np.nan, n), cl[3])
     lower = (np.zeros(len(table), bool) if lower_bound is None
              else np.asarray(lower_bound, bool))
+    lower_n = lower if lower_bound_n is None else np.asarray(lower_bound_n, bool)
     out = {}
-    for name, v in (("p_exceed_acidity", ex), ("p_exceed_nutrient_n", ex_n)):
+    for name, v, lb in (("p_exceed_acidity", ex, lower), ("p_exceed_nutrient_n", ex_n, lower_n)):
         ok = np.isfinite(v).all(0)
         p = np.where(ok, (np.nan_to_num(v) > 0).mean(0), np.nan)
-        out[name] = np.where(lower & (p == 0), np.nan, p)
+        out[name] = np.where(lb & (p == 0), np.nan, p)
     for name, v in (("ex_acidity_eq_ha_yr", ex), ("s_dep_eq_ha_yr", s), ("n_dep_eq_ha_yr", n)):
         qs = np.quantile(v, DRAW_QUANTILES, axis=0)                    # NaN where any is NaN
         if name.startswith("ex_"):

@@ -45,21 +45,55 @@ class TrendResult(NamedTuple):
 
 
 def _pairs(x, t):
-    """Sign of differences and slopes of all pairs i < j with both values present."""
+    """Signs and slopes of all pairs i < j with both values present.
+
+    The sign of a pair is sgn(x_j - x_i) sgn(t_j - t_i), Kendall's score between the
+    times and the values, so that the times need not be in order, and two values of the
+    same time score 0 and give no slope (Gilbert 1987, section 16.4.1, several values per
+    time period; Sen 1968; from memory).  Before the 2026-12 audit such a pair scored the
+    sign of its difference and gave an infinite slope (the per-series path of
+    :func:`trend_table`, for a series with two rows in one year, gave an infinite upper
+    end of the slope's interval), and times out of order scored against the order of
+    the rows.
+    """
     i, j = np.triu_indices(len(x), 1)
     ok = ~(np.isnan(x[i]) | np.isnan(x[j]))
     i, j = i[ok], j[ok]
     dx, dt = x[j] - x[i], t[j] - t[i]
-    return np.sign(dx), dx / dt
+    timed = dt != 0
+    return np.sign(dx) * np.sign(dt), dx[timed] / dt[timed]
 
 
-def _tie_variance(x) -> float:
+def _tie_sums(v):
+    """Sums over the groups of tied values of sizes u: u(u-1), u(u-1)(u-2), u(u-1)(2u+5)."""
+    _, u = np.unique(v, return_counts=True)
+    u = u.astype(float)
+    return np.sum(u * (u - 1)), np.sum(u * (u - 1) * (u - 2)), np.sum(u * (u - 1) * (2 * u + 5))
+
+
+def _tie_variance(x, t=None) -> float:
     """Var(S) without serial dependence, corrected for ties (Kendall 1975; Gilbert 1987,
-    eq. 16.4): [n(n-1)(2n+5) - sum_p t_p(t_p-1)(2t_p+5)] / 18."""
-    x = x[~np.isnan(x)]
-    n = x.size
-    _, tp = np.unique(x, return_counts=True)
-    return float((n * (n - 1) * (2 * n + 5) - np.sum(tp * (tp - 1) * (2 * tp + 5))) / 18.0)
+    eq. 16.4): [n(n-1)(2n+5) - sum_p t_p(t_p-1)(2t_p+5)] / 18.
+
+    With times `t` given, groups of equal times (several values in one time period)
+    add Kendall's (1975, ch. 4) terms for ties in both rankings (Gilbert 1987, eq. 16.6;
+    from memory): [n(n-1)(2n+5) - sum_p t_p(t_p-1)(2t_p+5) - sum_q u_q(u_q-1)(2u_q+5)]
+    / 18 + sum_p t_p(t_p-1)(t_p-2) sum_q u_q(u_q-1)(u_q-2) / [9 n(n-1)(n-2)]
+    + sum_p t_p(t_p-1) sum_q u_q(u_q-1) / [2 n(n-1)]; with distinct times (the usual
+    series of years) the extra terms are 0.
+    """
+    ok = ~np.isnan(x)
+    n = int(ok.sum())
+    a1, a2, a5 = _tie_sums(x[ok])
+    if t is None:
+        return float((n * (n - 1) * (2 * n + 5) - a5) / 18.0)
+    b1, b2, b5 = _tie_sums(np.asarray(t, float)[ok])
+    if b1 == 0:                       # distinct times: the same number as without them
+        return float((n * (n - 1) * (2 * n + 5) - a5) / 18.0)
+    out = (n * (n - 1) * (2 * n + 5) - a5 - b5) / 18.0 + a1 * b1 / (2.0 * n * (n - 1))
+    if n > 2:
+        out += a2 * b2 / (9.0 * n * (n - 1) * (n - 2))
+    return float(out)
 
 
 def _z(s, var_s) -> float:
@@ -120,7 +154,7 @@ def mann_kendall(x, t=None, alpha=ALPHA) -> TrendResult:
     sign, slopes = _pairs(x, t)
     n = int(np.sum(~np.isnan(x)))
     s = float(sign.sum())
-    var_s = _tie_variance(x)
+    var_s = _tie_variance(x, t)
     z = _z(s, var_s)
     slope = float(np.median(slopes)) if slopes.size else np.nan
     lo, hi = _slope_interval(slopes, var_s, alpha)

@@ -219,11 +219,12 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
             self.progress.done("ready")
         return self._draws
 
-    def ranges(self, loads, sel, lower=False) -> dict | None:
+    def ranges(self, loads, sel, lower=False, lower_n=None) -> dict | None:
         """The exceedance.csv-like row of the shown site-year with the 5-95 % range of S and
         N deposition and the probability of exceedance, or None when the range is off.
         `lower`: the deposition is partial (a lower bound), so a probability of 0 is not
-        determined, as in exceedance.csv (it read "probability ... 0.00" here)."""
+        determined, as in exceedance.csv (it read "probability ... 0.00" here);
+        `lower_n`: the N total is partial (nutrient N; default `lower`)."""
         if not self.range_w.value:
             return None
         import pandas as pd
@@ -231,8 +232,9 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         from ..analysis.exceedance import ACIDITY_KEYS, NUTRIENT_KEY, exceedance_probability
         row = {**sel, **{f"{k}_eq_ha_yr": float(loads.get(k, np.nan))
                          for k in ACIDITY_KEYS + (NUTRIENT_KEY,)}}
+        lower_n = lower if lower_n is None else lower_n
         return exceedance_probability(pd.DataFrame([row]), self.total_draws(),
-                                      [bool(lower)]).iloc[0].to_dict()
+                                      [bool(lower)], [bool(lower_n)]).iloc[0].to_dict()
 
     def loads(self) -> dict:
         site = self.session.study.catalogue()[self.site_w.value]
@@ -265,19 +267,22 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
                                 *(full[k] for k in ACIDITY))
         nut = nutrient_n_exceedance(first["n_dep_eq_ha_yr"], full["cl_nut_n"])
         self.status_note = status_note(self.result.years, *sel.values())
-        lower = lower_bound(self.result.years, *sel.values())
-        row = self.ranges(loads, sel, lower)
+        lower = lower_bound(self.result.years, *sel.values())        # S or N partial
+        lower_n = lower_bound(self.result.years, *sel.values(), elements=("N",))
+        row = self.ranges(loads, sel, lower, lower_n)
         self.range_text = ("" if row is None else
                            _range_text(row, self.unc_options.draws, lower,
-                                       {"acidity": acid_loads, "nutrient-N": "cl_nut_n" in loads}))
+                                       {"acidity": acid_loads, "nutrient-N": "cl_nut_n" in loads},
+                                       lower_n))
         self.statement = plain_statement(parts, cuts, full, mode, where) + self.range_text
         if lower:
-            self.statement = partial_statement(self.statement)
+            self.statement = partial_statement(
+                self.statement, ("acidity", "nutrient-N") if lower_n else ("acidity",))
         self.exceedance_words = (
             "acidity exceedance " + (exceedance_words(float(ex.exceedance), lower,
                                                       REGIONS[int(ex.region)])
                                      if acid_loads else NO_LOAD_WORDS["acidity"])
-            + "; nutrient-N exceedance " + (exceedance_words(float(nut), lower)
+            + "; nutrient-N exceedance " + (exceedance_words(float(nut), lower_n)
                                             if "cl_nut_n" in loads
                                             else NO_LOAD_WORDS["nutrient-N"]))
         self.text_w.value = (
@@ -293,12 +298,14 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         return self.statement
 
 
-def lower_bound(years_ds, site, receptor, period) -> bool:
-    """Whether the S or N total of the period lacks a component (status ``partial`` or
-    components named missing): the deposition, and so its exceedance, is a lower bound
-    (the rule of ``exceedance.csv``, :func:`workbench.analysis.exceedance.not_determined`)."""
+def lower_bound(years_ds, site, receptor, period, elements=("S", "N")) -> bool:
+    """Whether the total of one of `elements` of the period lacks a component (status
+    ``partial`` or components named missing): that deposition, and so an exceedance
+    resting on it, is a lower bound (the rule of ``exceedance.csv``,
+    :func:`workbench.analysis.exceedance.not_determined`): S and N for acidity, N alone
+    for nutrient N."""
     t = total_rates(years_ds, site, receptor, [str(period)])
-    t = t[t["pathway"] == "total"]
+    t = t[(t["pathway"] == "total") & t["element"].isin(elements)]
     return bool((t["status"].eq("partial") | t["missing"].str.strip().ne("")).any())
 
 
@@ -342,14 +349,15 @@ def status_note(years_ds, site, receptor, period) -> str:
             "a flagged one has components flagged (site budget explorer, budget.csv notes).")
 
 
-def _range_text(row: dict, draws: int, lower=False, has=None) -> str:
+def _range_text(row: dict, draws: int, lower=False, has=None, lower_n=None) -> str:
     """The 5-95 % range and the probabilities of exceedance of a row of
     :func:`workbench.analysis.exceedance.exceedance_probability`, in words.
 
     `lower`: the deposition is partial, so a probability left empty there is "not
     determined" (no draw exceeds the lower bound); `has`: {"acidity": bool,
     "nutrient-N": bool}, whether the receptor has that critical load (a probability
-    of a load it lacks is not said).
+    of a load it lacks is not said); `lower_n`: the N total is partial (the nutrient-N
+    probability's bound; default `lower`).
 
     >>> _range_text({"p_exceed_acidity": np.nan, "p_exceed_nutrient_n": 0.25}, 10, True)
     ' 5-95 % range of 10 Monte Carlo draws: S n/a, N n/a eq/ha/yr; probability of acidity exceedance not determined (no draw exceeds the partial deposition, a lower bound); probability of nutrient-N exceedance at least 0.25.'
@@ -358,6 +366,7 @@ def _range_text(row: dict, draws: int, lower=False, has=None) -> str:
         lo, hi = row.get(f"{name}_p05", np.nan), row.get(f"{name}_p95", np.nan)
         return f"{lo:.0f}-{hi:.0f}" if np.isfinite([lo, hi]).all() else "n/a"
     has = has or {}
+    bound = {"acidity": lower, "nutrient-N": lower if lower_n is None else lower_n}
     out = (f" 5-95 % range of {draws} Monte Carlo draws: S {pair('s_dep_eq_ha_yr')}, "
            f"N {pair('n_dep_eq_ha_yr')} eq/ha/yr;")
     for name, what in (("p_exceed_acidity", "acidity"), ("p_exceed_nutrient_n", "nutrient-N")):
@@ -365,8 +374,9 @@ def _range_text(row: dict, draws: int, lower=False, has=None) -> str:
             continue
         p = row.get(name, np.nan)
         if np.isfinite(p):
-            out += f" probability of {what} exceedance {'at least ' if lower else ''}{p:.2f};"
-        elif lower:
+            out += (f" probability of {what} exceedance {'at least ' if bound[what] else ''}"
+                    f"{p:.2f};")
+        elif bound[what]:
             out += (f" probability of {what} exceedance not determined (no draw exceeds the "
                     "partial deposition, a lower bound);")
         else:
@@ -514,12 +524,14 @@ def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
     return pd.DataFrame(rows)
 
 
-def partial_statement(statement: str) -> str:
+def partial_statement(statement: str, names=("acidity", "nutrient-N")) -> str:
     """The what-if `statement` of a partial deposition (a lower bound): "There is no
     acidity exceedance." said plainly contradicted the line above it ("not determined")
     and the Monte Carlo probability of exceedance beside it; it becomes "no exceedance
-    of the deposition as measured", and a closing sentence says the cuts may be larger."""
-    for name in ("acidity", "nutrient-N"):
+    of the deposition as measured", and a closing sentence says the cuts may be larger.
+    `names`: the exceedances that rest on the partial total (nutrient N rests on N alone,
+    so a partial S leaves its statement as it is)."""
+    for name in names:
         statement = statement.replace(
             f"There is no {name} exceedance.",
             f"No {name} exceedance of the deposition as measured, which is partial: not "
