@@ -121,3 +121,35 @@ def test_no_value_words_get_a_hint_in_the_met(tmp_path, cat, met_reader, cell, h
         met_reader(tmp_path / "met.csv", cat)
     msg = str(exc.value)
     assert f"line {i + 1}, column 'wind_speed [m/s]'" in msg and hint in msg, msg
+
+
+# ----------------------------------------------- a met file with its records put in twice
+def test_a_met_file_pasted_after_itself_is_named(tmp_path, cat, met_reader):
+    # before: "duplicate hourly timestamp ... (also on line 3)" without a word that every
+    # hour of the file is there twice
+    from tiny_inputs import met_text
+    from workbench.errors import InputError
+    lines = met_text(n_hours=48).splitlines()
+    data = [k for k, ln in enumerate(lines) if ln.startswith("alpha,")]
+    p = tmp_path / "met.csv"
+    p.write_text("\n".join(lines + [lines[k] for k in data]) + "\n")
+    with pytest.raises(InputError) as exc:
+        met_reader(p, cat)
+    msg = str(exc.value)
+    assert f"line {len(lines) + 1}, column 'time'" in msg, msg
+    assert f"(also on line {data[0] + 1})" in msg, msg
+    assert (f"; {len(data)} rows repeat the site and hour of an earlier row: the same "
+            "records put in the file twice") in msg, msg
+
+
+def test_one_repeated_met_hour_gets_no_twice_hint(tmp_path, cat, met_reader):
+    from tiny_inputs import met_text
+    from workbench.errors import InputError
+    lines = met_text(n_hours=48).splitlines()
+    data = [k for k, ln in enumerate(lines) if ln.startswith("alpha,")]
+    p = tmp_path / "met.csv"
+    p.write_text("\n".join(lines + [lines[data[5]]]) + "\n")
+    with pytest.raises(InputError) as exc:
+        met_reader(p, cat)
+    assert "duplicate hourly timestamp" in str(exc.value)
+    assert "put in the file twice" not in str(exc.value)
