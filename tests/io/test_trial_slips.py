@@ -93,6 +93,7 @@ def _precip_cell(tmp_path, column, cell, line=2):
     ("NULL", "(a 'no value' mark? leave the cell empty, or write NA; a value below "
              "detection is '<limit'"),
     ("missing", "a 'no value' mark?"),
+    ("?", "a 'no value' mark?"),                        # still refused, now with a hint
     ("\u2014", "a 'no value' mark?"),                   # an em dash, not a hyphen-minus
     ("\u2212999", "(a minus sign typed as '\u2212'? write '-', e.g. '-999')"),
 ])
