@@ -123,8 +123,9 @@ def test_missing_value_texts_are_counted(tmp_path, cat, monkeypatch, text, col, 
 
 @pytest.mark.parametrize("text, problem", [
     ("nd", "text in a numeric column (a 'not detected' code? this column takes numbers only: leave the cell empty)"),
-    ("n.a.", "text in a numeric column"),
-    ("missing", "text in a numeric column"),
+    ("n.a.", "text in a numeric column (a 'no value' mark? leave the cell empty, or write NA)"),
+    ("missing", "text in a numeric column (a 'no value' mark? leave the cell empty, or "
+                "write NA)"),
     ("N/A?", "text in a numeric column"),
 ])
 def test_other_texts_are_errors(tmp_path, cat, monkeypatch, text, problem):

@@ -159,15 +159,21 @@ def check_hours(sites, t, where, name_row, off_hour=None, moved=None):
         raise where(i, "duplicate hourly timestamp",
                     f"one row per site and hour (also on {name_row(first)})"
                     + _repeat_hint(sites, t, i, first)
-                    + methours.repeat_hint(moved is not None and bool(moved[i] or moved[first])))
+                    + methours.repeat_hint(moved is not None and bool(moved[i] or moved[first]))
+                    + methours.twice_hint(int(dup.sum()), _adjacent(sites, i, first)))
+
+
+def _adjacent(sites, i, first) -> bool:
+    """Is row `first` the row of its site just before row `i`?"""
+    same_site = np.flatnonzero(sites == sites[i])
+    k = int(np.searchsorted(same_site, i))
+    return bool(k > 0 and same_site[k - 1] == first)
 
 
 def _repeat_hint(sites, t, i, first) -> str:
     """:func:`clock_change_hint` of row `i` repeating row `first` (t: UTC hour ends)."""
-    same_site = np.flatnonzero(sites == sites[i])
-    k = int(np.searchsorted(same_site, i))
-    adjacent = k > 0 and same_site[k - 1] == first
-    return clock_change_hint(adjacent, int(str(np.datetime64(t[i], "M"))[5:7]))
+    return clock_change_hint(_adjacent(sites, i, first),
+                             int(str(np.datetime64(t[i], "M"))[5:7]))
 
 
 def _assemble(values, sites, t, lines, path, catalogue, raw_units, empty_reason):

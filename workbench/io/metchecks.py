@@ -408,8 +408,9 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
         bad = night & (values["solar_radiation"] > NIGHT_RADIATION_MAX)
         share = pd.Series(bad[night]).groupby(codes[night]).mean() if night.any() else pd.Series(dtype=float)
         systematic = np.isin(codes, share.index[share > NIGHT_SHARE_HINT].to_numpy())
-        flag(bad & systematic, "solar radiation at night at many hours: check utc_offset_h "
-             "and whether times label the start or the end of the hour")
+        flag(bad & systematic, "solar radiation at night at many hours: check utc_offset_h, "
+             "whether times label the start or the end of the hour, and the site's "
+             "latitude and longitude")
         flag(bad & ~systematic, "solar radiation above 25 W/m2 at night")
     return join_reasons(parts) if parts else np.full(n, "", object), values
 

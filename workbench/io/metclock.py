@@ -325,7 +325,8 @@ def _half_hour(lag) -> str:
             "cloud maximum can pull a whole-hour error down to this")
 
 
-def notes_from_lags(table, site_ids, catalogue, file_name, utc_labels=False) -> list[str]:
+def notes_from_lags(table, site_ids, catalogue, file_name, utc_labels=False,
+                    coordinate_hints=None) -> list[str]:
     """The ledger notes of :func:`site_lags`'s table [text].
 
     Parameters
@@ -340,6 +341,9 @@ def notes_from_lags(table, site_ids, catalogue, file_name, utc_labels=False) -> 
     utc_labels : bool
         The file's times are read as UTC (NetCDF, zarr): a whole-hour lag is named as
         local times written without their zone.
+    coordinate_hints : dict, optional
+        site id -> text (:func:`coordinate_hints`) added to the site's whole-record note:
+        its coordinates typed wrong explain the lag too.
 
     Returns
     -------
@@ -386,8 +390,9 @@ def notes_from_lags(table, site_ids, catalogue, file_name, utc_labels=False) -> 
         if abs(whole) >= LAG_NOTE_H and not mixed:
             by_year = (f"; it changes between years ({each}): a logger clock reset or "
                        f"drifting?" if apart else "")
+            coords = (coordinate_hints or {}).get(site, "")
             notes.append(f"{head}: lag {_hours(whole)} ({seen}): {_cause(whole, off, utc_labels)}"
-                         f"{by_year}{kept}")
+                         f"{by_year}{coords}{kept}")
         elif apart:
             notes.append(f"{head}: the lag changes between years ({each}): a logger clock "
                          f"reset or drifting? Check the logger's clock log{kept}")
@@ -436,8 +441,65 @@ def clock_notes(met, catalogue, file_name, group_records=None,
     for k in range(0, len(ids), step):
         rad = np.asarray(met["solar_radiation"].isel(site=slice(k, k + step)).values, float)
         parts.append(site_lags(rad, time_end, lat[k:k + step], lon[k:k + step]))
-    return notes_from_lags(pd.concat(parts, ignore_index=True), ids, catalogue, file_name,
-                           utc_labels)
+    table = pd.concat(parts, ignore_index=True)
+    return notes_from_lags(table, ids, catalogue, file_name, utc_labels,
+                           coordinate_hints(met, table, ids, lat, lon))
+
+
+def coordinate_hints(met, table, site_ids, latitude, longitude) -> dict:
+    """Sites whose clock lag their coordinates explain: typed in each other's place, or
+    the longitude's sign lost (a west longitude typed positive, or the reverse) [text].
+
+    A swapped latitude and longitude (``latitude = 7.2``, ``longitude = 54.5`` for a site
+    at 54.5 N, 7.2 E) moves the site's solar noon by the difference of the two over 15
+    degrees an hour, which the clock check reads as a clock error of hours.  For each site
+    whose whole-record lag is noted (:data:`LAG_NOTE_H` or more), the lag is measured
+    again at the swapped coordinates (when the longitude can be a latitude, within
+    +-90 degrees) and with the longitude's sign turned; the first that brings the lag
+    under :data:`HALF_HOUR_HINT_H` (on time) is named.  A loop over the few noted
+    sites, not over hours.
+
+    Parameters
+    ----------
+    met : xarray.Dataset
+        As :func:`clock_notes`.
+    table : pandas.DataFrame
+        :func:`site_lags` of `site_ids`.
+    site_ids : sequence of str
+    latitude, longitude : ndarray, shape (site,)
+        [degree], from the catalogue.
+
+    Returns
+    -------
+    dict
+        site id -> the text added to its note (none for a site its coordinates do not
+        explain).
+    """
+    hints = {}
+    time_end = met["time"].values
+    for i, row in enumerate(table.itertuples(index=False)):
+        if not (np.isfinite(row.lag_clear) and abs(row.lag_clear) >= LAG_NOTE_H):
+            continue
+        la, lo = float(latitude[i]), float(longitude[i])
+        tries = []
+        if abs(lo) <= 90 and la != lo:
+            tries.append(("latitude and longitude typed in each other's place", lo, la))
+        if lo != 0:
+            tries.append(("the longitude's sign lost (east is positive, west negative)",
+                          la, -lo))
+        if not tries:
+            continue
+        rad = np.asarray(met["solar_radiation"].isel(site=[i] * len(tries)).values, float)
+        again = site_lags(rad, time_end, np.array([t[1] for t in tries]),
+                          np.array([t[2] for t in tries]))
+        for (what, la2, lo2), lag in zip(tries, again["lag_clear"]):
+            if np.isfinite(lag) and abs(lag) < HALF_HOUR_HINT_H:
+                hints[site_ids[i]] = (
+                    f"; or the site's coordinates in the site catalogue (latitude {la:g}, "
+                    f"longitude {lo:g}): at latitude {la2:g}, longitude {lo2:g} the "
+                    f"radiation keeps time with the sun (lag {_hours(lag)}): {what}?")
+                break
+    return hints
 
 
 def add_clock_notes(met, ledger, catalogue, path, group_records=None) -> None:

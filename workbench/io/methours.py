@@ -200,6 +200,23 @@ def repeat_hint(moved_either: bool) -> str:
             "one: write a site's hours on the whole hours of one clock")
 
 
+#: Rows repeating an earlier row's site and hour from which a repeat is named as records
+#: put in the file twice (two exports joined, a file pasted after itself) [row]: one
+#: repeated hour is a clock going back or a typing slip, a day of them is no slip (our
+#: choice).
+TWICE_ROWS = 24
+
+
+def twice_hint(count: int, adjacent: bool) -> str:
+    """The hint of `count` rows that repeat an earlier row's site and hour, the first not
+    next to the row it repeats: records put in the file twice [text]."""
+    if count < TWICE_ROWS or adjacent:
+        return ""
+    return (f"; {count} rows repeat the site and hour of an earlier row: the same records "
+            "put in the file twice (two exports joined, a file pasted after itself)? keep "
+            "one copy of each hour")
+
+
 #: Months in which clocks go back from summer time, north and south (common practice).
 CLOCK_BACK_MONTHS = (3, 4, 9, 10, 11)
 

@@ -169,11 +169,13 @@ def first_repeat(rows, line_of, limit):
 
     Returns
     -------
-    (int, int) or None
+    (int, int, int) or None
         File lines of the repeating row and of the first row of its site and hour
-        (as ``pandas.DataFrame.duplicated`` marks them in the line reader).
+        (as ``pandas.DataFrame.duplicated`` marks them in the line reader), and the
+        number of rows that repeat an earlier row's site and hour.
     """
     best = None
+    count = 0
     for grp in rows.groups(limit):
         st = rows.site[grp].astype(np.int64)
         tv = rows.read("time", grp).view(np.int64)
@@ -181,6 +183,7 @@ def first_repeat(rows, line_of, limit):
         same = (st[order][1:] == st[order][:-1]) & (tv[order][1:] == tv[order][:-1])
         if not same.any():
             continue
+        count += int(same.sum())
         rep = grp[order[1:][same]]
         j = int(np.argmin(rep))
         i = int(rep[j])
@@ -191,7 +194,7 @@ def first_repeat(rows, line_of, limit):
             best = (i, int(grp[order[k]]))
     if best is None:
         return None
-    return tuple(int(x) for x in line_of(list(best)))
+    return (*(int(x) for x in line_of(list(best))), count)
 
 
 def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour, repeat,
@@ -259,7 +262,7 @@ def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour
 
 def _raise_repeat(path, raw_headers, repeat, line_text, catalogue):
     """The line reader's error for a repeated hour (workbench.io.met.check_hours)."""
-    line, first = repeat
+    line, first, count = repeat
     value = line_text(line)["time"]
     moved = False     # was either label moved onto the whole UTC hour (off it as read)?
     for k in (line, first):
@@ -277,7 +280,8 @@ def _raise_repeat(path, raw_headers, repeat, line_text, catalogue):
                      column=raw_headers["time"], value=value,
                      expected=f"one row per site and hour (also on line {first})"
                      + methours.clock_change_hint(line == first + 1, month)
-                     + methours.repeat_hint(moved))
+                     + methours.repeat_hint(moved)
+                     + methours.twice_hint(count, line == first + 1))
 
 
 class ZoneTally:

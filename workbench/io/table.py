@@ -38,6 +38,16 @@ SAMPLE_MISSING_TEXTS = ("", "na", "n/a", "nan", "-", "--", "#n/a")
 #: Texts that mean "below detection" written as words: an error with the ``<limit`` hint
 #: (turning them into a missing value would drop a measured absence; common practice).
 _NOT_DETECTED = ("nd", "n.d.", "bdl", "<dl", "<lod", "lod", "dl", "not detected", "trace", "tr")
+#: Texts that mean either "not detected" or "no data" (``n/d``; labs and loggers write it
+#: for both): an error whose hint names both readings (common practice).
+_ND_OR_NO_DATA = ("n/d", "n.d", "n d")
+#: Words and marks of "no value" that the readers do not take as missing (a database's
+#: ``NULL``, a typed word, a dash that is no hyphen-minus): an error whose hint says to
+#: leave the cell empty (or write NA) rather than read an unknown word as a gap
+#: (common practice).
+_NO_VALUE_WORDS = ("null", "none", "nil", "missing", "no data", "nodata", "no value",
+                   "n.a.", "n.a", "not available", "?", "??", "\u2014", "\u2013", "\u2212",
+                   "x", "xx", "xxx", "*", "***")
 #: Any blank but the line break (what ``str.strip`` removes, as ``str.isspace``): the
 #: cells are stripped only when the data rows hold one, or a quote (a quoted cell may
 #: end in a line break); a pass over every cell of a large file costs a good part of
@@ -68,6 +78,17 @@ def number_hint(cell: str, censoring: bool = False) -> str:
         return (" (a 'not detected' code? write '<limit', e.g. '<0.02')" if censoring
                 else " (a 'not detected' code? this column takes numbers only: leave the "
                 "cell empty)")
+    if low in _ND_OR_NO_DATA:
+        return (f" ('{cell}': not detected, or no data? below detection write '<limit', "
+                "e.g. '<0.02'; no value: leave the cell empty" if censoring
+                else f" ('{cell}': no data? this column takes numbers only: leave the cell "
+                "empty") + ")"
+    if low in _NO_VALUE_WORDS:
+        return (" (a 'no value' mark? leave the cell empty, or write NA; a value below "
+                "detection is '<limit', e.g. '<0.02')" if censoring
+                else " (a 'no value' mark? leave the cell empty, or write NA)")
+    if re.fullmatch(rf"[\u2212\u2013\u2014]{NUMBER_TEXT}", cell):
+        return (f" (a minus sign typed as '{cell[0]}'? write '-', e.g. '-{cell[1:]}')")
     if low in FORMULA_ERRORS:
         return (" (a spreadsheet formula error: correct the formula in the sheet, or leave "
                 "the cell empty if there is no value)")
