@@ -90,6 +90,15 @@ class Comparison(Lines):
     same: bool = True
 
 
+def same_input(ra: dict, rb: dict) -> bool:
+    """Two runs' records of one input name the same content: the same SHA-256 of the
+    bytes, or (gzip files recorded by both) of the decompressed content."""
+    if ra.get("sha256") == rb.get("sha256"):
+        return True
+    ca, cb = ra.get("content_sha256"), rb.get("content_sha256")
+    return ca is not None and ca == cb
+
+
 def _input_name(record: dict) -> str:
     """An input of provenance.json as the lines name it: relative to its scenario."""
     return record.get("in_scenario_folder") or Path(record.get("path", "")).name
@@ -139,7 +148,7 @@ def compare_runs(a, b, rtol: float = 0.0, rows: int | None = SHOWN_ROWS) -> Comp
         if ra is None or rb is None:
             lines.append(f"  {role}: only in {'A' if rb is None else 'B'} "
                          f"({_input_name(ra or rb)})")
-        elif ra.get("sha256") != rb.get("sha256"):
+        elif not same_input(ra, rb):
             lines.append(f"  {role}: different files ({_input_name(ra)} in A, "
                          f"{_input_name(rb)} in B; sha256 {short_digest(ra.get('sha256'))} "
                          f"and {short_digest(rb.get('sha256'))})")
