@@ -19,7 +19,9 @@ an hour, a warm spell comes over hours.
 day's mean moves little; days below -5 degC) by their two edges: the first hour of the
 run is 1.8 x (the hour before) + 32 and the hour after its last is back to the degC
 reading (see its docstring); below -10 degC, where that jump is the size of a natural
-spell, only where the relative humidity holds steady across both edges.
+spell, only where the relative humidity holds steady across both edges; and, reflected
+about -40 degC, runs colder than -50 degC, where the degF reading lies below the degC
+one (between -30 and -50 degC the jump is too small to tell from the weather).
 """
 from __future__ import annotations
 
