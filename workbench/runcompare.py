@@ -4,8 +4,9 @@ Two runs of a study (one option changed, an input corrected, another workbench v
 are compared from their folders alone: the workbench version, the options of the
 recorded scenarios (``provenance.json``), the input files by their SHA-256 (wherever
 they lay), and the budget totals of ``budget.csv`` (S and N, wet, dry and total, per
-site, receptor and period, in kg/ha/yr) with their statuses.  docs/run_folder.md shows
-an example.
+site, receptor and period, in kg/ha/yr) with their statuses.  Two ``workbench
+sensitivity`` folders are compared by their tables instead (:func:`table_differences`);
+folders of two kinds get one message.  docs/run_folder.md shows an example.
 """
 from __future__ import annotations
 
@@ -18,7 +19,7 @@ import pandas as pd
 from .runcheck import (Lines, RunRecordError, option_differences, read_provenance,
                        short_digest, show)
 
-__all__ = ["Comparison", "compare_runs", "budget_differences"]
+__all__ = ["Comparison", "compare_runs", "budget_differences", "table_differences"]
 
 #: The keys of a budget total in budget.csv.
 KEYS = ["site", "receptor", "period", "element", "pathway"]
@@ -211,7 +212,8 @@ def compare_runs(a, b, rtol: float = 0.0, rows: int | None = SHOWN_ROWS) -> Comp
     Parameters
     ----------
     a, b : path
-        Run folders written by ``workbench run``.
+        Run folders written by ``workbench run``, or two folders written by ``workbench
+        sensitivity`` (compared by their Sobol and tornado tables).
     rtol : float
         Relative difference below which two totals count as equal [1] (default 0: the
         numbers as written).
@@ -222,7 +224,14 @@ def compare_runs(a, b, rtol: float = 0.0, rows: int | None = SHOWN_ROWS) -> Comp
     -------
     Comparison
         ``.same`` is True when options, inputs and every budget total (value and
-        status) agree; ``.budget`` holds every differing total.
+        status) agree; ``.budget`` holds every differing total (of sensitivity folders:
+        every differing number, with its ``file``).
+
+    Raises
+    ------
+    RunRecordError
+        For a folder without provenance.json, or folders of two kinds (a run beside a
+        sensitivity folder) or of a kind not compared (a grid folder).
     """
     a, b = Path(a).resolve(), Path(b).resolve()
     pa, pb = read_provenance(a), read_provenance(b)
