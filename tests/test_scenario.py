@@ -222,3 +222,12 @@ def test_period_toml_datetime_with_offset_is_utc(tmp_path):
                                            "end = 2021-01-01T00:00:00\n"))
     assert (sc.data["period"]["start"], sc.data["period"]["end"]) == ("2020-01-01T00:00",
                                                                       "2021-01-01T00:00")
+
+
+def test_period_end_at_24_00_is_the_end_of_that_day(tmp_path):
+    """`end = "2021-12-31T24:00"` (the end of the day, as the sample files' 24:00 labels
+    are read) was refused as "not a date"; it is 2022-01-01T00:00."""
+    sc = load_scenario(_scenario(tmp_path, "[period]\nend = \"2021-12-31T24:00\"\n"))
+    assert sc.data["period"]["end"] == "2022-01-01T00:00"
+    with pytest.raises(ScenarioError, match="not a date"):
+        load_scenario(_scenario(tmp_path, "[period]\nend = \"2021-02-30T24:00\"\n"))

@@ -430,11 +430,16 @@ def _check_grid(grid: dict, given, path, lines):
                                 "file, or absolute")
 
 
+#: A time of 24:00 (the end of the day), as the readers of the sample files take it.
+_END_OF_DAY = re.compile(r"^\s*(\d{4}-\d\d-\d\d)[T ]24:00(:00)?\s*$")
+
+
 def _period_text(period: dict) -> dict:
     """``[period]`` with a TOML date or date-time (``end = 2021-12-31``, unquoted) as the
     ISO text the quoted form gives (``"2021-12-31"``): both read alike. A date-time with
-    an offset is taken to UTC. The value keeps its meaning: a date is its first instant
-    (``end`` exclusive; docs/scenario.md)."""
+    an offset is taken to UTC; ``"2021-12-31T24:00"`` (the end of that day) is
+    ``"2022-01-01T00:00"``, as the sample files' 24:00 labels are read. The value keeps
+    its meaning: a date is its first instant (``end`` exclusive; docs/scenario.md)."""
     import datetime as _dt
     out = dict(period)
     for key in ("start", "end"):
@@ -446,6 +451,14 @@ def _period_text(period: dict) -> dict:
                                    else "auto")
         elif isinstance(v, _dt.date):
             out[key] = v.isoformat()
+        elif isinstance(v, str):             # "2021-12-31T24:00": the end of that day
+            m = _END_OF_DAY.match(v)
+            if m:
+                try:
+                    day = _dt.date.fromisoformat(m.group(1))
+                except ValueError:
+                    continue                 # not a date: said by _check_period
+                out[key] = (day + _dt.timedelta(days=1)).isoformat() + "T00:00"
     return out
 
 
