@@ -29,7 +29,9 @@ from workbench.io.metdegf import fahrenheit_days, fahrenheit_edges  # noqa: E402
 #: name -> (annual mean, seasonal amplitude, synoptic sd, diurnal amplitude) [degC, K]
 CLIMATES = {"tundra": (-12.0, 20.0, 7.0, 3.0), "continental": (3.0, 18.0, 6.0, 6.0),
             "temperate": (10.0, 7.0, 3.5, 4.0), "hot desert": (28.0, 10.0, 3.0, 9.0),
-            "tropical": (27.0, 1.5, 1.2, 4.0)}
+            "tropical": (27.0, 1.5, 1.2, 4.0),
+            # a high cold plateau: winters near -55 degC, where degF reads below degC
+            "plateau": (-35.0, 20.0, 7.0, 3.0)}
 
 
 def invented_year(rng, climate, years):
@@ -78,7 +80,8 @@ def invented_rh(rng, smooth, actual):
     return np.minimum(e / saturation_hpa(actual), 1.0) + rng.normal(0, 0.01, n)
 
 
-def run(climate, years, seeds, run_days, steps=False, rh=True, spells_keep_rh=False):
+def run(climate, years, seeds, run_days, steps=False, rh=True, spells_keep_rh=False,
+        cold_start=None):
     false_days = found = total = 0
     for seed in range(seeds):
         rng = np.random.default_rng(seed)
@@ -91,7 +94,13 @@ def run(climate, years, seeds, run_days, steps=False, rh=True, spells_keep_rh=Fa
         false_days += len(np.unique(t[hit].astype("datetime64[D]")))
         if run_days:
             h = int(round(24 * run_days))
-            a = int(rng.integers(0, 24 * 365 * years - h))   # from any hour
+            if cold_start is None:
+                a = int(rng.integers(0, 24 * 365 * years - h))   # from any hour
+            else:                                  # from an hour colder than cold_start
+                cold = np.flatnonzero(x[:-h] < cold_start)
+                if not len(cold):
+                    continue
+                a = int(rng.choice(cold))
             y = x.copy()
             y[a:a + h] = y[a:a + h] * 1.8 + 32.0
             hit = found_rows(y + ZERO_CELSIUS, codes, t, r)
@@ -119,6 +128,9 @@ def main(argv=None):
     ap.add_argument("--spells-keep-rh", action="store_true",
                     help="a worst case: each abrupt spell keeps the relative humidity of "
                          "the air before it (its vapour pressure changes with it)")
+    ap.add_argument("--cold-start", type=float, default=None, metavar="DEGC",
+                    help="each run starts at an hour colder than DEGC (climates without "
+                         "such hours: nan)")
     args = ap.parse_args(argv)
     if args.daily_only:
         global found_rows
@@ -130,7 +142,8 @@ def main(argv=None):
     rows = []
     for climate in CLIMATES:
         for days in (0.25, 1, 3, 14, 45):
-            fa, det = run(climate, args.years, args.seeds, days, rh=not args.no_rh)
+            fa, det = run(climate, args.years, args.seeds, days, rh=not args.no_rh,
+                          cold_start=args.cold_start)
             fs, _ = run(climate, args.years, args.seeds, 0, steps=True, rh=not args.no_rh,
                         spells_keep_rh=args.spells_keep_rh)
             rows.append((climate, days, fa, fs, det))

@@ -220,6 +220,8 @@ def test_met_degf_benchmark_runs():
     bench = _load("met_degf")
     false_days, found = bench.run("temperate", 1, 1, 3)
     assert false_days >= 0 and 0 <= found <= 1
+    _, cold = bench.run("plateau", 1, 1, 1, cold_start=-50.0)   # runs below -50 degC
+    assert 0 <= cold <= 1
 
 
 def test_clock_and_decimal_comma_benchmarks_run():

@@ -189,3 +189,45 @@ def test_site_catalogue_given_as_the_scenario(tmp_path):
         load_scenario(p)
     assert "a site catalogue, not a scenario, expected the scenario file, whose [inputs] " \
         "names this catalogue as sites = ..." in str(exc.value)
+
+
+# ------------------------------------------- a [period] date written with or without quotes
+@pytest.mark.parametrize("written", ['start = 2020-01-01\nend = 2021-12-31',
+                                     'start = "2020-01-01"\nend = "2021-12-31"'])
+def test_period_date_only_end_keeps_its_last_day(tmp_path, written):
+    """`end = 2021-12-31` (a TOML date, unquoted) reads as the quoted text does (the
+    unquoted one was refused as "wrong type"), and a date-only end on a period's last
+    day keeps that day: the periods are whole, so December runs to 2022-01-01, and the
+    run note says so (docs/scenario.md, "A date as end")."""
+    import numpy as np
+
+    from workbench.periods import make_periods
+    from workbench.preflight import span_notes
+    sc = load_scenario(_scenario(tmp_path, f"[period]\nresolution = \"month\"\n{written}\n"))
+    p = sc.data["period"]
+    assert (p["start"], p["end"]) == ("2020-01-01", "2021-12-31")
+    table = make_periods(p["start"], p["end"], "month")
+    assert table["label"].iloc[-1] == "2021-12"
+    assert table["end"].iloc[-1] == np.datetime64("2022-01-01")
+    notes = span_notes(p["start"], p["end"], table["start"].iloc[0], table["end"].iloc[-1],
+                       "month")
+    assert notes == ["note: [period] end 2021-12-31 lies inside a month period: the budget "
+                     "covers whole month periods, from 2020-01-01 to 2022-01-01 (put start and "
+                     "end on the first instant of a month period; docs/scenario.md)"]
+
+
+def test_period_toml_datetime_with_offset_is_utc(tmp_path):
+    """An unquoted TOML date-time with an offset is taken to UTC (the budget's clock)."""
+    sc = load_scenario(_scenario(tmp_path, "[period]\nstart = 2020-01-01T01:00:00+01:00\n"
+                                           "end = 2021-01-01T00:00:00\n"))
+    assert (sc.data["period"]["start"], sc.data["period"]["end"]) == ("2020-01-01T00:00",
+                                                                      "2021-01-01T00:00")
+
+
+def test_period_end_at_24_00_is_the_end_of_that_day(tmp_path):
+    """`end = "2021-12-31T24:00"` (the end of the day, as the sample files' 24:00 labels
+    are read) was refused as "not a date"; it is 2022-01-01T00:00."""
+    sc = load_scenario(_scenario(tmp_path, "[period]\nend = \"2021-12-31T24:00\"\n"))
+    assert sc.data["period"]["end"] == "2022-01-01T00:00"
+    with pytest.raises(ScenarioError, match="not a date"):
+        load_scenario(_scenario(tmp_path, "[period]\nend = \"2021-02-30T24:00\"\n"))

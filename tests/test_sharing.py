@@ -334,3 +334,78 @@ def test_the_recorded_checksum_is_of_the_bytes_parsed(tmp_path):
     assert set(stamps) == set(study.inputs.paths)
     for role, p in study.inputs.paths.items():
         assert stamps[role] == file_sha256(p), role
+
+
+# ------------------------------------------------------------- gzip inputs: content, not bytes
+def _gzip_met(scen: Path, level: int = 9, mtime: int = 0) -> Path:
+    """met.csv of the tiny project as met.csv.gz (the scenario names it)."""
+    import gzip
+    raw = (scen.parent / "met.csv").read_bytes()
+    gz = scen.parent / "met.csv.gz"
+    gz.write_bytes(gzip.compress(raw, compresslevel=level, mtime=mtime))
+    (scen.parent / "met.csv").unlink()
+    scen.write_text(scen.read_text().replace('"met.csv"', '"met.csv.gz"'))
+    return gz
+
+
+def test_verify_a_gzip_input_compressed_again_is_not_a_change(tmp_path, capsys):
+    """The same met content compressed again (other level, other header time: other
+    bytes) verifies; an edit of the content does not (the old code called both
+    "differs")."""
+    import gzip
+    scen = _project(tmp_path / "p")
+    gz = _gzip_met(scen)
+    run = _run(scen, tmp_path / "run")
+    rec = json.loads((run / "provenance.json").read_text())["inputs"]["met"]
+    raw = gzip.decompress(gz.read_bytes())
+    import hashlib
+    assert rec["content_sha256"] == hashlib.sha256(raw).hexdigest()
+    before = gz.read_bytes()
+    gz.write_bytes(gzip.compress(raw, compresslevel=1, mtime=12345))
+    assert gz.read_bytes() != before
+    assert main(["verify", str(run)]) == 0
+    out = capsys.readouterr().out
+    assert ("input met (met.csv.gz): as at the run (compressed again: other bytes, the "
+            "same content; content_sha256)") in out
+    lines = raw.decode().splitlines()
+    lines[5] = lines[5][:-1] + ("1" if lines[5][-1] != "1" else "2")     # one digit edited
+    gz.write_bytes(gzip.compress(("\n".join(lines) + "\n").encode(), mtime=0))
+    assert main(["verify", str(run)]) == 1
+    out = capsys.readouterr().out
+    assert f"input met (met.csv.gz): {gz} differs from the run (content sha256" in out
+
+
+def test_verify_a_gzip_input_of_a_run_folder_with_byte_checksums_only(tmp_path, capsys):
+    """A run folder written before content_sha256 (bytes only) still verifies its
+    unchanged gzip input, and says why a recompressed one cannot be told from an edit."""
+    import gzip
+    scen = _project(tmp_path / "p")
+    gz = _gzip_met(scen)
+    run = _run(scen, tmp_path / "run")
+    prov = json.loads((run / "provenance.json").read_text())
+    del prov["inputs"]["met"]["content_sha256"]
+    del prov["input_checksums"]
+    (run / "provenance.json").write_text(json.dumps(prov))
+    assert main(["verify", str(run)]) == 0
+    assert "input met (met.csv.gz): as at the run" in capsys.readouterr().out
+    gz.write_bytes(gzip.compress(gzip.decompress(gz.read_bytes()), compresslevel=1, mtime=7))
+    assert main(["verify", str(run)]) == 1
+    assert ("the run records the checksum of the compressed bytes only, so a file compressed "
+            "again cannot be told from an edited one") in capsys.readouterr().out
+
+
+def test_compare_goes_by_the_content_of_gzip_inputs(tmp_path, capsys):
+    """Two runs of one met content compressed two ways: the same inputs for compare."""
+    import gzip
+    scen = _project(tmp_path / "p")
+    gz = _gzip_met(scen)
+    run_a = _run(scen, tmp_path / "a")
+    gz.write_bytes(gzip.compress(gzip.decompress(gz.read_bytes()), compresslevel=1, mtime=7))
+    run_b = _run(scen, tmp_path / "b")
+    pa = json.loads((run_a / "provenance.json").read_text())["inputs"]["met"]
+    pb = json.loads((run_b / "provenance.json").read_text())["inputs"]["met"]
+    assert pa["sha256"] != pb["sha256"]
+    main(["compare", str(run_a), str(run_b)])
+    out = capsys.readouterr().out
+    assert "met: different files" not in out
+    assert "inputs: the same files (SHA-256)" in out

@@ -25,7 +25,8 @@ def cmd_compare(args) -> int:
         from .csvcaution import write_sidecar_caution
         atomic_write(Path(args.csv), lambda tmp: c.budget.to_csv(tmp, index=False))
         side = write_sidecar_caution(Path(args.csv), atomic_write)
-        print(f"every differing total: {Path(args.csv).resolve()} (caution: {side.name})")
+        what = "total" if "file" not in c.budget else "number"
+        print(f"every differing {what}: {Path(args.csv).resolve()} (caution: {side.name})")
     return 0 if c.same else 1
 
 
@@ -50,7 +51,8 @@ def add_parsers(sub) -> None:
                    "then where it was)")
     v.set_defaults(func=cmd_verify)
     c = sub.add_parser("compare", help="what differs between two run folders: options, "
-                       "inputs and the budget totals per site, receptor and period")
+                       "inputs and the budget totals per site, receptor and period (two "
+                       "sensitivity folders: their Sobol indices and tornado)")
     c.add_argument("run_a", type=Path)
     c.add_argument("run_b", type=Path)
     c.add_argument("--rtol", type=float, default=0.0, help="relative difference below "

@@ -92,7 +92,9 @@ def make_periods(start, end, resolution: str = "month", *,
     ranges : sequence or DataFrame, optional
         For ``"custom"``: ``(start, end)`` or ``(start, end, label)`` tuples, or a
         DataFrame with ``start``, ``end`` and optionally ``label`` columns.  Custom
-        ranges may leave gaps or overlap each other.
+        ranges may leave gaps or overlap each other.  A date alone is its first instant
+        and each `end` is exclusive: the week of 8 to 14 March is
+        ``("2021-03-08", "2021-03-15")`` (``"2021-03-14"`` would leave the 14th out).
     clip : bool
         When True, the first and last regular periods are cut to ``[start, end)``;
         by default whole calendar periods are returned.

@@ -174,6 +174,7 @@ def verify_run(run, scenario=None) -> Verification:
     RunRecordError
         When `run` holds no readable provenance.json.
     """
+    from .io.readbytes import gzip_content_sha256
     from .writers import sha256
     run = Path(run).resolve()
     prov = read_provenance(run)
@@ -290,13 +291,25 @@ def verify_run(run, scenario=None) -> Verification:
             bad(f"input {role} not found")
             say(f"input {role} ({name}): not found (looked at "
                 + " or ".join(str(p) for p in looked if p is not None) + ")")
-        elif sha256(found) != rec.get("sha256"):
-            bad(f"input {role} changed")
-            say(f"input {role} ({name}): {found} differs from the run (sha256 "
-                f"{short_digest(rec.get('sha256'))} at the run, "
-                f"{short_digest(sha256(found))} now)")
-        else:
+        elif sha256(found) == rec.get("sha256"):
             say(f"input {role} ({name}): as at the run")
+        elif rec.get("content_sha256") and \
+                gzip_content_sha256(found) == rec["content_sha256"]:
+            say(f"input {role} ({name}): as at the run (compressed again: other bytes, "
+                "the same content; content_sha256)")
+        else:
+            bad(f"input {role} changed")
+            now_content = gzip_content_sha256(found)
+            if rec.get("content_sha256") and now_content is not None:
+                said = (f"content sha256 {short_digest(rec['content_sha256'])} at the run, "
+                        f"{short_digest(now_content)} now")
+            else:
+                said = (f"sha256 {short_digest(rec.get('sha256'))} at the run, "
+                        f"{short_digest(sha256(found))} now")
+            if now_content is not None and not rec.get("content_sha256"):
+                said += ("; the run records the checksum of the compressed bytes only, so a "
+                         "file compressed again cannot be told from an edited one")
+            say(f"input {role} ({name}): {found} differs from the run ({said})")
     if now is not None:
         for role in now:
             if role not in records:

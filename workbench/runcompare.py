@@ -4,8 +4,9 @@ Two runs of a study (one option changed, an input corrected, another workbench v
 are compared from their folders alone: the workbench version, the options of the
 recorded scenarios (``provenance.json``), the input files by their SHA-256 (wherever
 they lay), and the budget totals of ``budget.csv`` (S and N, wet, dry and total, per
-site, receptor and period, in kg/ha/yr) with their statuses.  docs/run_folder.md shows
-an example.
+site, receptor and period, in kg/ha/yr) with their statuses.  Two ``workbench
+sensitivity`` folders are compared by their tables instead (:func:`table_differences`);
+folders of two kinds get one message.  docs/run_folder.md shows an example.
 """
 from __future__ import annotations
 
@@ -18,7 +19,7 @@ import pandas as pd
 from .runcheck import (Lines, RunRecordError, option_differences, read_provenance,
                        short_digest, show)
 
-__all__ = ["Comparison", "compare_runs", "budget_differences"]
+__all__ = ["Comparison", "compare_runs", "budget_differences", "table_differences"]
 
 #: The keys of a budget total in budget.csv.
 KEYS = ["site", "receptor", "period", "element", "pathway"]
@@ -90,6 +91,116 @@ class Comparison(Lines):
     same: bool = True
 
 
+def same_input(ra: dict, rb: dict) -> bool:
+    """Two runs' records of one input name the same content: the same SHA-256 of the
+    bytes, or (gzip files recorded by both) of the decompressed content."""
+    if ra.get("sha256") == rb.get("sha256"):
+        return True
+    ca, cb = ra.get("content_sha256"), rb.get("content_sha256")
+    return ca is not None and ca == cb
+
+
+#: What each kind of folder is, in the message on folders compare does not take.
+KIND_WORDS = {"run": "a `workbench run` folder", "sensitivity": "a `workbench sensitivity` "
+              "folder", "grid": "a `workbench grid` folder (maps: not compared)",
+              "other": "a folder of neither kind"}
+#: The files of a sensitivity folder that compare reads: the columns naming a row and
+#: the numbers compared (docs/run_folder.md).
+SENSITIVITY_TABLES = {
+    "sensitivity.csv": ("Sobol indices", ["S1", "S1_conf", "ST", "ST_conf"]),
+    "tornado.csv": ("tornado", ["output_low", "output_base", "output_high"]),
+}
+#: The columns that name a row of either table: the cell (site, receptor, period), the
+#: total (element, quantity) and the parameter (factor).
+SENSITIVITY_KEYS = ["site", "receptor", "period", "element", "quantity", "factor"]
+
+
+def folder_kind(run: Path, prov: dict) -> str:
+    """``"run"``, ``"sensitivity"``, ``"grid"`` or ``"other"``: what wrote folder `run`
+    (by the files its provenance.json lists, else those present)."""
+    names = set(prov.get("outputs") or []) or {p.name for p in Path(run).iterdir()}
+    for name, kind in (("budget.csv", "run"), ("sensitivity.csv", "sensitivity"),
+                       ("grid.nc", "grid")):
+        if name in names:
+            return kind
+    return "other"
+
+
+def table_differences(a, b, name: str, values: list, rtol: float = 0.0):
+    """The values of table `name` (a CSV of a sensitivity folder) that differ between
+    folders `a` and `b`, one row per differing number: :data:`SENSITIVITY_KEYS`,
+    ``column``, ``a``, ``b``, ``change`` (b - a), largest change first; and counts
+    (``shared`` rows, ``only_a``, ``only_b``, ``factors_only_a``, ``factors_only_b``)."""
+    def read(folder):
+        path = Path(folder) / name
+        if not path.is_file():
+            raise RunRecordError(f"{folder}: no {name}, expected a folder written by "
+                                 "`workbench sensitivity`")
+        t = pd.read_csv(path, dtype={"period": str}, keep_default_na=False,
+                        na_values={c: [""] for c in values})
+        return t.set_index(SENSITIVITY_KEYS)[values]
+    ta, tb = read(a), read(b)
+    both = ta.merge(tb, how="inner", left_index=True, right_index=True, suffixes=("_a", "_b"))
+    parts = []
+    for col in values:
+        va, vb = both[f"{col}_a"].to_numpy(float), both[f"{col}_b"].to_numpy(float)
+        nan_a, nan_b = np.isnan(va), np.isnan(vb)
+        with np.errstate(invalid="ignore"):
+            close = np.isclose(va, vb, rtol=rtol, atol=0.0) if rtol else va == vb
+        differs = (nan_a != nan_b) | (~nan_a & ~nan_b & ~close)
+        d = both.index[differs].to_frame(index=False)
+        d["column"], d["a"], d["b"] = col, va[differs], vb[differs]
+        parts.append(d)
+    out = pd.concat(parts, ignore_index=True)
+    out["change"] = out["b"] - out["a"]
+    out = out.iloc[np.argsort(-out["change"].abs().fillna(np.inf).to_numpy(),
+                              kind="stable")].reset_index(drop=True)
+    fa = set(ta.index.get_level_values("factor"))
+    fb = set(tb.index.get_level_values("factor"))
+    counts = {"shared": len(both), "only_a": len(ta.index.difference(tb.index)),
+              "only_b": len(tb.index.difference(ta.index)),
+              "factors_only_a": sorted(fa - fb), "factors_only_b": sorted(fb - fa)}
+    return out, counts
+
+
+def _compare_sensitivity(c, a, b, rtol, rows):
+    """The tables of two sensitivity folders, after their options and inputs: the rows
+    (cell, total, parameter) whose numbers differ, largest change first; ``c.budget``
+    holds every differing number with a ``file`` column."""
+    say = c.lines.append
+    tol = f" by more than {rtol:g} (relative)" if rtol else ""
+    every = []
+    for name, (what, values) in SENSITIVITY_TABLES.items():
+        diff, counts = table_differences(a, b, name, values, rtol)
+        only = ""
+        if counts["only_a"] or counts["only_b"]:
+            only = f"; {counts['only_a']} rows only in A, {counts['only_b']} only in B"
+            for side in ("a", "b"):
+                if counts[f"factors_only_{side}"]:
+                    only += (f" (factors only in {side.upper()}: "
+                             + ", ".join(counts[f"factors_only_{side}"]) + ")")
+            c.same = False
+        if diff.empty:
+            say(f"{what} ({name}): the {counts['shared']} shared rows are the same{tol}{only}")
+            continue
+        c.same = False
+        cells = diff[SENSITIVITY_KEYS].drop_duplicates()
+        say(f"{what} ({name}): {len(diff)} numbers of {len(cells)} of {counts['shared']} "
+            f"rows differ{tol}{only}; parameters: "
+            + ", ".join(dict.fromkeys(diff["factor"].astype(str))) + "; largest change first:")
+        shown = diff if rows is None else diff.head(rows)
+        say(shown.to_string(index=False, na_rep="–", formatters={
+            "a": "{:.4g}".format, "b": "{:.4g}".format, "change": "{:+.3g}".format}))
+        if rows is not None and len(diff) > rows:
+            say(f"... and {len(diff) - rows} more (--all lists every one, --csv FILE "
+                "writes them)")
+        every.append(diff.assign(file=name))
+    c.budget = (pd.concat(every, ignore_index=True)[["file", *SENSITIVITY_KEYS, "column", "a",
+                                                      "b", "change"]] if every else
+                pd.DataFrame(columns=["file", *SENSITIVITY_KEYS, "column", "a", "b", "change"]))
+    return c
+
+
 def _input_name(record: dict) -> str:
     """An input of provenance.json as the lines name it: relative to its scenario."""
     return record.get("in_scenario_folder") or Path(record.get("path", "")).name
@@ -101,7 +212,8 @@ def compare_runs(a, b, rtol: float = 0.0, rows: int | None = SHOWN_ROWS) -> Comp
     Parameters
     ----------
     a, b : path
-        Run folders written by ``workbench run``.
+        Run folders written by ``workbench run``, or two folders written by ``workbench
+        sensitivity`` (compared by their Sobol and tornado tables).
     rtol : float
         Relative difference below which two totals count as equal [1] (default 0: the
         numbers as written).
@@ -112,10 +224,24 @@ def compare_runs(a, b, rtol: float = 0.0, rows: int | None = SHOWN_ROWS) -> Comp
     -------
     Comparison
         ``.same`` is True when options, inputs and every budget total (value and
-        status) agree; ``.budget`` holds every differing total.
+        status) agree; ``.budget`` holds every differing total (of sensitivity folders:
+        every differing number, with its ``file``).
+
+    Raises
+    ------
+    RunRecordError
+        For a folder without provenance.json, or folders of two kinds (a run beside a
+        sensitivity folder) or of a kind not compared (a grid folder).
     """
     a, b = Path(a).resolve(), Path(b).resolve()
     pa, pb = read_provenance(a), read_provenance(b)
+    kinds = folder_kind(a, pa), folder_kind(b, pb)
+    if kinds[0] != kinds[1] or kinds[0] not in ("run", "sensitivity"):
+        raise RunRecordError(
+            "workbench compare takes two folders of one kind: two `workbench run` folders "
+            "(options, inputs, budget totals) or two `workbench sensitivity` folders "
+            f"(options, inputs, Sobol indices and tornado); A ({a}) is {KIND_WORDS[kinds[0]]}, "
+            f"B ({b}) {KIND_WORDS[kinds[1]]}")
     c = Comparison()
     say = c.lines.append
     say(f"A: {a} (deposition workbench {pa.get('version')}, {pa.get('run_finished_utc')})")
@@ -139,7 +265,7 @@ def compare_runs(a, b, rtol: float = 0.0, rows: int | None = SHOWN_ROWS) -> Comp
         if ra is None or rb is None:
             lines.append(f"  {role}: only in {'A' if rb is None else 'B'} "
                          f"({_input_name(ra or rb)})")
-        elif ra.get("sha256") != rb.get("sha256"):
+        elif not same_input(ra, rb):
             lines.append(f"  {role}: different files ({_input_name(ra)} in A, "
                          f"{_input_name(rb)} in B; sha256 {short_digest(ra.get('sha256'))} "
                          f"and {short_digest(rb.get('sha256'))})")
@@ -151,6 +277,8 @@ def compare_runs(a, b, rtol: float = 0.0, rows: int | None = SHOWN_ROWS) -> Comp
     else:
         say("inputs: the same files (SHA-256)")
 
+    if kinds[0] == "sensitivity":
+        return _compare_sensitivity(c, a, b, rtol, rows)
     diff, counts = budget_differences(a, b, rtol)
     c.budget = diff
     only = ""

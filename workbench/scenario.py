@@ -320,7 +320,10 @@ def validate(raw: dict, path=None, text: str = "", require_inputs: bool = True,
                                 expected=f"a [{section}] table")
     data = {}
     for section, keys in SCHEMA.items():
-        data[section] = _check_plain_section(section, keys, raw.get(section, {}), path, lines)
+        given = raw.get(section, {})
+        if section == "period":
+            given = _period_text(given)
+        data[section] = _check_plain_section(section, keys, given, path, lines)
     if data["period"]["resolution"] not in ("month", "season", "year", "hydro_year"):
         raise ScenarioError("unknown resolution", file=path,
                             line=_line_of(lines, "period", "resolution"), column="period.resolution",
@@ -425,6 +428,38 @@ def _check_grid(grid: dict, given, path, lines):
                                 line=_line_of(lines, "grid", key), column=f"grid.{key}",
                                 value=grid[key], expected="a path relative to the scenario "
                                 "file, or absolute")
+
+
+#: A time of 24:00 (the end of the day), as the readers of the sample files take it.
+_END_OF_DAY = re.compile(r"^\s*(\d{4}-\d\d-\d\d)[T ]24:00(:00)?\s*$")
+
+
+def _period_text(period: dict) -> dict:
+    """``[period]`` with a TOML date or date-time (``end = 2021-12-31``, unquoted) as the
+    ISO text the quoted form gives (``"2021-12-31"``): both read alike. A date-time with
+    an offset is taken to UTC; ``"2021-12-31T24:00"`` (the end of that day) is
+    ``"2022-01-01T00:00"``, as the sample files' 24:00 labels are read. The value keeps
+    its meaning: a date is its first instant (``end`` exclusive; docs/scenario.md)."""
+    import datetime as _dt
+    out = dict(period)
+    for key in ("start", "end"):
+        v = out.get(key)
+        if isinstance(v, _dt.datetime):
+            if v.tzinfo is not None:
+                v = v.astimezone(_dt.timezone.utc).replace(tzinfo=None)
+            out[key] = v.isoformat(timespec="minutes" if not (v.second or v.microsecond)
+                                   else "auto")
+        elif isinstance(v, _dt.date):
+            out[key] = v.isoformat()
+        elif isinstance(v, str):             # "2021-12-31T24:00": the end of that day
+            m = _END_OF_DAY.match(v)
+            if m:
+                try:
+                    day = _dt.date.fromisoformat(m.group(1))
+                except ValueError:
+                    continue                 # not a date: said by _check_period
+                out[key] = (day + _dt.timedelta(days=1)).isoformat() + "T00:00"
+    return out
 
 
 def _check_period(period: dict, path, lines):

@@ -17,7 +17,7 @@ from . import __version__
 from .csvwrite import write_csv
 from .io.common import release_free_memory
 from .io.ledger import STATUSES
-from .io.readbytes import file_sha256
+from .io.readbytes import file_sha256, gzip_content_sha256
 from .runfolder import (OutputError, RunFolder, atomic_write, check_out_dir,  # noqa: F401
                         os_error_message)
 from .runpaths import relative_from, scenario_base, shown_path, shown_text
@@ -25,6 +25,13 @@ from .budget import derived_status
 from .tables import BUDGET_COLUMNS, summary_table
 
 __all__ = ["OUTPUT_STEPS", "OutputError", "RunFolder", "atomic_write", "write_run"]
+
+
+#: The rule of the inputs' checksums, written into provenance.json beside them.
+INPUT_CHECKSUM_RULE = ("sha256: SHA-256 of the file's bytes as read; content_sha256 (gzip "
+                       "files, .gz): SHA-256 of the decompressed content, which workbench "
+                       "verify and compare go by when both runs have it, so that a file "
+                       "compressed again with the same content is not a change")
 
 
 def sha256(path) -> str:
@@ -285,6 +292,9 @@ def provenance(scenario, inputs_paths: dict, started: _dt.datetime, out=None,
         inputs[role] = {"path": str(p), "sha256": read.get(role) or sha256(p),
                         "in_scenario_folder": shown_path(p, base) if role != "scenario"
                         else Path(p).name}
+        content = gzip_content_sha256(p)
+        if content is not None:
+            inputs[role]["content_sha256"] = content
         if out is not None:
             inputs[role]["from_run_folder"] = relative_from(p, out)
         if role in changed:
@@ -297,6 +307,7 @@ def provenance(scenario, inputs_paths: dict, started: _dt.datetime, out=None,
         "scenario_file": str(scenario.path) if scenario is not None and scenario.path else None,
         "scenario": resolved,
         "inputs": inputs,
+        "input_checksums": INPUT_CHECKSUM_RULE,
         "command_line_overrides": overrides,
         "environment": environment(),
     }

@@ -254,3 +254,45 @@ def test_a_sensitivity_folder_records_what_made_it_and_verifies(tiny, tmp_path, 
     air.write_text(air.read_text() + "\n")
     assert main(["verify", str(out)]) == 1
     assert f"input air ({air.name}): {air} differs from the run" in capsys.readouterr().out
+
+
+def test_compare_of_two_sensitivity_folders_names_the_rows_that_differ(tiny, tmp_path, capsys):
+    """`workbench compare` of two sensitivity folders (one factor range changed) lists
+    the option, then the Sobol and tornado numbers that differ with their cell, total
+    and parameter; a run folder beside a sensitivity folder gets one message saying
+    what compare takes.  Old code: "no budget.csv" for both."""
+    import shutil
+
+    from workbench.cli import main
+    from workbench.runcompare import compare_runs
+    shared, _, _, _ = tiny
+    for name in ("pa", "pb"):
+        shutil.copytree(shared.path.parent, tmp_path / name)
+    scen_b = tmp_path / "pb" / shared.path.name
+    scen_b.write_text(scen_b.read_text().replace("vd_SO2 = [0.5, 1.5]", "vd_SO2 = [0.6, 1.5]"))
+    for name in ("pa", "pb"):
+        assert main(["sensitivity", str(tmp_path / name / shared.path.name), "--out",
+                     str(tmp_path / f"s_{name}"), "--quiet"]) == 0
+    capsys.readouterr()
+    assert main(["compare", str(tmp_path / "s_pa"), str(tmp_path / "s_pb"), "--all"]) == 1
+    out = capsys.readouterr().out
+    assert "sensitivity.factors.vd_SO2: [0.5, 1.5] in A, [0.6, 1.5] in B" in out
+    c = compare_runs(tmp_path / "s_pa", tmp_path / "s_pb", rows=None)
+    torn = c.budget[c.budget["file"] == "tornado.csv"]
+    # moving the low end of vd_SO2 changes that factor's low output only, never the base
+    assert set(torn["factor"]) == {"vd_SO2"} and set(torn["column"]) == {"output_low"}
+    assert "tornado (tornado.csv): " in out and "parameters: vd_SO2;" in out
+    a = pd.read_csv(tmp_path / "s_pa" / "tornado.csv")
+    b = pd.read_csv(tmp_path / "s_pb" / "tornado.csv")
+    low_differs = (a["output_low"] != b["output_low"]).sum()
+    assert len(torn) == low_differs > 0
+    assert main(["compare", str(tmp_path / "s_pa"), str(tmp_path / "s_pa")]) == 0
+    assert "Sobol indices (sensitivity.csv): the " in capsys.readouterr().out
+    assert main(["run", str(tmp_path / "pa" / shared.path.name), "--out",
+                 str(tmp_path / "run"), "--quiet"]) == 0
+    capsys.readouterr()
+    assert main(["compare", str(tmp_path / "run"), str(tmp_path / "s_pa")]) == 2
+    err = capsys.readouterr().err
+    assert "workbench compare takes two folders of one kind: two `workbench run` folders" in err
+    assert "is a `workbench run` folder, B (" in err
+    assert "a `workbench sensitivity` folder" in err

@@ -168,3 +168,27 @@ def test_the_reader_passes_the_humidity_to_the_cold_edges(tmp_path, demo):
     tab = led.table
     hit = tab[tab["reason"].str.contains(REASON, regex=False)]
     assert sorted(hit["line"].astype(int)) == list(range(702, 750))    # header is line 1
+
+
+@pytest.mark.parametrize("start, hours", [(1207, 30), (400, 72), (1500, 60)])
+def test_runs_below_minus_fifty_are_found_by_their_reversed_edges(start, hours):
+    """Old code: below -40 degC the degF reading lies below the degC one (-58 at -50
+    degC, from degF = 1.8 degC + 32, common practice), so a run starts with a drop and
+    ends with a rise, and no edge was taken.  Reflected about -40 degC (C -> -80 - C,
+    under which the conversion keeps its form) the run is the rule's own case: found
+    with a steady relative humidity.  A clean record as cold, and a natural cold spell
+    of the same size whose relative humidity rises (the same vapour pressure in colder
+    air, Magnus formula), are not masked."""
+    t, x, rh = _colder_record(mean=-58.0)
+    codes = np.zeros(len(t), np.int64)
+    assert not fahrenheit_edges(x + ZERO_CELSIUS, codes, t, rh).any()       # clean
+    y = x.copy()
+    y[start:start + hours] = _to_f(y[start:start + hours])
+    assert (y[start] - x[start - 1]) < -8                                    # a drop
+    hit = fahrenheit_edges(y + ZERO_CELSIUS, codes, t, rh)
+    assert hit[start:start + hours].all() and hit.sum() == hours
+    r = rh.copy()
+    r[start:start + hours] = np.minimum(
+        rh[start:start + hours] * _saturation_hpa(x[start:start + hours])
+        / _saturation_hpa(y[start:start + hours]), 1.0)
+    assert not fahrenheit_edges(y + ZERO_CELSIUS, codes, t, r).any()

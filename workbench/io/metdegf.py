@@ -19,7 +19,9 @@ an hour, a warm spell comes over hours.
 day's mean moves little; days below -5 degC) by their two edges: the first hour of the
 run is 1.8 x (the hour before) + 32 and the hour after its last is back to the degC
 reading (see its docstring); below -10 degC, where that jump is the size of a natural
-spell, only where the relative humidity holds steady across both edges.
+spell, only where the relative humidity holds steady across both edges; and, reflected
+about -40 degC, runs colder than -50 degC, where the degF reading lies below the degC
+one (between -30 and -50 degC the jump is too small to tell from the weather).
 """
 from __future__ import annotations
 
@@ -147,7 +149,32 @@ EDGE_SPREAD_RATIO = 1.2
 EDGE_SPREAD_HOURS = 48
 
 
+#: The temperature at which the degC and degF scales meet [degC] (-40 degC = -40 degF;
+#: from the conversion F = 1.8 C + 32).  The relation of a degF reading to its degC
+#: hour keeps its form under the reflection C -> 2 x (-40) - C, which is how
+#: :func:`fahrenheit_edges` finds runs colder than this, where the degF reading lies
+#: below the degC one.
+SCALES_MEET = -40.0
+
+
 def fahrenheit_edges(temperature_k, codes, t, relative_humidity=None) -> np.ndarray:
+    """Rows of runs bounded by a jump to the degF reading of the hour before and a jump
+    back to the degC reading of the hour after: :func:`_rising_edges` on the record as
+    read (runs warmer than -40 degC, where degF reads higher), and on the record
+    reflected about -40 degC (C -> -80 - C, under which F = 1.8 C + 32 keeps its form:
+    runs colder than -40 degC, where degF reads lower, a drop at the start and a rise
+    at the end; found below -50 degC with a steady relative humidity, -70 degC
+    without).  Parameters and returns as :func:`_rising_edges`."""
+    hit = _rising_edges(temperature_k, codes, t, relative_humidity)
+    x = np.asarray(temperature_k, float) - ZERO_CELSIUS
+    with np.errstate(invalid="ignore"):
+        if not (x < SCALES_MEET).any():      # nothing colder than -40: no cold run
+            return hit
+    mirrored = 2 * SCALES_MEET - x + ZERO_CELSIUS
+    return hit | _rising_edges(mirrored, codes, t, relative_humidity)
+
+
+def _rising_edges(temperature_k, codes, t, relative_humidity=None) -> np.ndarray:
     """Rows of runs bounded by a rise to the degF reading of the hour before and a drop
     back to the degC reading of the hour after.
 

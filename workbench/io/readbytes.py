@@ -97,6 +97,27 @@ def file_sha256(path) -> str:
     return h.hexdigest()
 
 
+def gzip_content_sha256(path) -> str | None:
+    """SHA-256 (hex) of the decompressed content of gzip file `path` (name ending in
+    ``.gz``), read in blocks of :data:`BLOCK`; None for any other file or one that does
+    not decompress.  The same content compressed again (another level, another tool,
+    another time stamp in the gzip header) gives other bytes but the same digest: what
+    ``workbench verify`` and ``compare`` go by for such inputs (docs/run_folder.md)."""
+    import gzip
+    import zlib
+    path = Path(path)
+    if not path.is_file() or not path.name.lower().endswith(".gz"):
+        return None
+    h = hashlib.sha256()
+    try:
+        with gzip.open(path, "rb") as f:
+            for block in iter(lambda: f.read(BLOCK), b""):
+                h.update(block)
+    except (OSError, EOFError, zlib.error):
+        return None
+    return h.hexdigest()
+
+
 def record_whole(path) -> str:
     """Record the SHA-256 of `path` as it is now, for a reader that opens the file
     itself (NetCDF, zarr: read lazily by xarray, not as one stream of bytes): hashed

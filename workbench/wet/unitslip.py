@@ -186,23 +186,12 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
                     continue
                 k_all = int((at & (high | low)).sum())
                 best = None
-                for col in ("gauge_depth", "sample_depth"):
-                    if col not in units:
-                        continue
-                    header, unit, _ = units[col]
-                    for other in DEPTH_UNITS:
-                        f = _factor(unit, other, None)
-                        if _same_unit(f):
-                            continue
-                        idx = np.flatnonzero(failing)    # only the failing samples
-                        g, v = gauge[idx], sample[idx]
-                        if col == "gauge_depth":
-                            r2 = qa.capture_ratio(v, g * f, options.capture_min_depth)
-                        else:
-                            r2 = qa.capture_ratio(v * f, g, options.capture_min_depth)
-                        mended = int((qa.at_least(r2, lo) & qa.at_most(r2, hi)).sum())
-                        if mended > SHARE * k and (best is None or mended > best[0]):
-                            best = (mended, col, header, unit, other)
+                idx = np.flatnonzero(failing)            # only the failing samples
+                for col, header, unit, other, f in _depth_trials(units):
+                    r2 = _reread_ratio(col, f, sample[idx], gauge[idx], options)
+                    mended = int((qa.at_least(r2, lo) & qa.at_most(r2, hi)).sum())
+                    if mended > SHARE * k and (best is None or mended > best[0]):
+                        best = (mended, col, header, unit, other)
                 if best is not None:
                     mended, col, header, unit, other = best
                     noted.add(site)
@@ -215,6 +204,31 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
         notes += _depth_run_notes(samples, units, file_name, sample, gauge, ratio, ok,
                                   high, low, noted, options)
     return notes
+
+
+def _depth_trials(units: dict, band: float = 1.0):
+    """The depth columns of `units` each with every other length unit of
+    :data:`DEPTH_UNITS`: ``(column, header, unit, other, factor)``, `factor` the amount
+    read under `other` over the amount read under the header's unit. A factor within
+    `band` of 1 (``max(f, 1/f) <= band``; default: only the header's own unit) is left
+    out."""
+    for col in ("gauge_depth", "sample_depth"):
+        if col not in units:
+            continue
+        header, unit, _ = units[col]
+        for other in DEPTH_UNITS:
+            f = _factor(unit, other, None)
+            if _same_unit(f) or max(f, 1 / f) <= band:
+                continue
+            yield col, header, unit, other, f
+
+
+def _reread_ratio(col: str, f: float, sample, gauge, options) -> np.ndarray:
+    """Capture ratio with column `col` (``gauge_depth`` or ``sample_depth``) read in the
+    other unit (its values times `f`). [-]"""
+    if col == "gauge_depth":
+        return qa.capture_ratio(sample, gauge * f, options.capture_min_depth)
+    return qa.capture_ratio(sample * f, gauge, options.capture_min_depth)
 
 
 def _depth_run_notes(samples, units, file_name, sample, gauge, ratio, ok, high, low,
@@ -236,41 +250,31 @@ def _depth_run_notes(samples, units, file_name, sample, gauge, ratio, ok, high, 
     if len(ev) < RUN_MIN:
         return []
     out, used = [], set()
-    for col in ("gauge_depth", "sample_depth"):
-        if col not in units:
-            continue
-        header, unit, _ = units[col]
-        for other in DEPTH_UNITS:
-            f = _factor(unit, other, None)
-            if _same_unit(f) or max(f, 1 / f) <= hi / lo:
-                continue
-            if col == "gauge_depth":
-                r2 = qa.capture_ratio(sample, gauge * f, options.capture_min_depth)
-            else:
-                r2 = qa.capture_ratio(sample * f, gauge, options.capture_min_depth)
-            mends = qa.at_least(r2, lo) & qa.at_most(r2, hi)
-            for failing, side in ((high, "high"), (low, "low")):
-                hit = (failing & mends)[ev]
-                s_ev = sites[ev]
-                new = hit & ~np.r_[False, hit[:-1] & (s_ev[1:] == s_ev[:-1])]
-                run_id = np.cumsum(new)
-                size = np.bincount(run_id[hit], minlength=run_id.max() + 1)
-                for r in np.flatnonzero(size >= RUN_MIN):
-                    idx = ev[hit & (run_id == r)]
-                    site = sites[idx[0]]
-                    if site in noted or (site, int(idx[0])) in used:
-                        continue
-                    used.add((site, int(idx[0])))
-                    ln = np.sort(lines[idx])
-                    t0, t1 = (str(np.datetime_as_string(start[idx].min(), "D")),
-                              str(np.datetime_as_string(start[idx].max(), "D")))
-                    value = float(samples[col].values[idx[0]])
-                    out.append(f"{file_name}: {col.replace('_', ' ')} at {site}: lines "
-                               f"{ln[0]}-{ln[-1]} ({len(idx)} consecutive samples the "
-                               f"check evaluates, {t0} to {t1}) fail the capture check with "
-                               f"the capture ratio {side} (e.g. line {lines[idx[0]]}, read as "
-                               f"{value:g} mm, ratio "
-                               f"{ratio[idx[0]]:.3g}, expected {lo:g} to {hi:g}); read as "
-                               f"{other} they all pass: the values look like {other} under a "
-                               f"{unit} header ({header!r}; values not changed)")
+    for col, header, unit, other, f in _depth_trials(units, band=hi / lo):
+        r2 = _reread_ratio(col, f, sample, gauge, options)
+        mends = qa.at_least(r2, lo) & qa.at_most(r2, hi)
+        for failing, side in ((high, "high"), (low, "low")):
+            hit = (failing & mends)[ev]
+            s_ev = sites[ev]
+            new = hit & ~np.r_[False, hit[:-1] & (s_ev[1:] == s_ev[:-1])]
+            run_id = np.cumsum(new)
+            size = np.bincount(run_id[hit], minlength=run_id.max() + 1)
+            for r in np.flatnonzero(size >= RUN_MIN):
+                idx = ev[hit & (run_id == r)]
+                site = sites[idx[0]]
+                if site in noted or (site, int(idx[0])) in used:
+                    continue
+                used.add((site, int(idx[0])))
+                ln = np.sort(lines[idx])
+                t0, t1 = (str(np.datetime_as_string(start[idx].min(), "D")),
+                          str(np.datetime_as_string(start[idx].max(), "D")))
+                value = float(samples[col].values[idx[0]])
+                out.append(f"{file_name}: {col.replace('_', ' ')} at {site}: lines "
+                           f"{ln[0]}-{ln[-1]} ({len(idx)} consecutive samples the "
+                           f"check evaluates, {t0} to {t1}) fail the capture check with "
+                           f"the capture ratio {side} (e.g. line {lines[idx[0]]}, read as "
+                           f"{value:g} mm, ratio "
+                           f"{ratio[idx[0]]:.3g}, expected {lo:g} to {hi:g}); read as "
+                           f"{other} they all pass: the values look like {other} under a "
+                           f"{unit} header ({header!r}; values not changed)")
     return out
