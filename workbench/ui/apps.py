@@ -19,6 +19,7 @@ from .assumptions import ASSUMPTIONS, Settings
 from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, make_control,
                        open_with_progress, refresh, set_quietly, table_html, wrap_labels_style)
+from .figure_open import page
 from .scheme_tab import SchemeTab
 from .session import Session, output_dir
 from .palette import TEMPLATE
@@ -137,7 +138,9 @@ class SiteExplorer(SavedText, widgets.VBox):
         self.nh3_w.value = self._nh3_html()
         self.bracket_w.value = self._bracket_html()
         self.excluded_w.value = self._excluded_html()
-        pages = {n: self.figs.get(n) for n in TABS}
+        # each figure in a box of its own: opened anew, it keeps its old drawing until
+        # the new one has drawn, as the budget does (figure_open.page)
+        pages = {n: page(self.figs.get(n)) for n in TABS}
         pages["excluded samples"] = widgets.VBox([self.figs["excluded samples"], self.excluded_w])
         pages["gas schemes"] = self.schemes.page
         self.tabs = widgets.Tab([pages[n] for n in TABS])

@@ -22,6 +22,9 @@ GASES = ("SO2", "HNO3", "NH3", "NO2", "O3")
 SCHEME_COLOURS = {"wesely1989": "#0072B2", "zhang2003": "#D55E00"}
 CM_PER_M = 100.0
 HEIGHT = 380
+#: Most ticks on the Vd axis of a season panel (about 130 px wide): three numbers
+#: stand level without touching.
+VD_TICKS = 4
 
 
 def seasonal_vd(vd_by_scheme: dict, site, receptor, gases=GASES) -> pd.DataFrame:
@@ -57,9 +60,12 @@ def seasonal_vd(vd_by_scheme: dict, site, receptor, gases=GASES) -> pd.DataFrame
 
 
 def scheme_vd_spec(vd_by_scheme: dict, site, receptor, gases=GASES) -> dict:
-    """Spec of grouped bars: mean Vd by gas, one panel per season, one colour per scheme.
+    """Spec of grouped horizontal bars: mean Vd by gas, one panel per season, one colour
+    per scheme.
 
-    Parameters as :func:`seasonal_vd`.
+    The gases stand on the shared y axis, read level (upright bars in four panels of a
+    660 px figure left each panel about 130 px for five names, and plotly stood them
+    on end), the first gas on top.  Parameters as :func:`seasonal_vd`.
     """
     t = seasonal_vd(vd_by_scheme, site, receptor, gases)
     base, axes = subplot_layout(1, len(SEASON_NAMES), shared_yaxes=True,
@@ -70,14 +76,22 @@ def scheme_vd_spec(vd_by_scheme: dict, site, receptor, gases=GASES) -> dict:
         xname, yname = axes[col]
         for scheme in vd_by_scheme:
             sel = t[(t.season == season) & (t.scheme == scheme)].set_index("species")
-            y = [None if not np.isfinite(sel.loc[g, "vd_cm_s"]) else float(sel.loc[g, "vd_cm_s"])
+            x = [None if not np.isfinite(sel.loc[g, "vd_cm_s"]) else float(sel.loc[g, "vd_cm_s"])
                  for g in gases]
-            data.append({"type": "bar", "name": scheme, "x": list(gases), "y": y,
-                         "legendgroup": scheme, "showlegend": col == 0,
+            data.append({"type": "bar", "orientation": "h", "name": scheme, "x": x,
+                         "y": list(gases), "legendgroup": scheme, "showlegend": col == 0,
                          "marker": {"color": SCHEME_COLOURS.get(scheme, "#999999")},
+                         "hovertemplate": f"{season} · %{{y}} · {scheme}: %{{x:.3g}} cm s-1"
+                                          "<extra></extra>",
                          "xaxis": xname.replace("axis", ""), "yaxis": yname.replace("axis", "")})
-    layout[axes[0][1]]["title"] = {"text": "mean Vd (cm s-1)"}
+        layout[xname].update(tickangle=0, nticks=VD_TICKS)
+        layout[yname].update(autorange="reversed", tickangle=0)
+    layout[axes[0][1]]["title"] = {"text": "gas"}
+    layout["annotations"] = layout.get("annotations", []) + [{
+        "text": "mean Vd (cm s-1)", "xref": "paper", "yref": "paper", "x": 0.5, "y": 0,
+        "yshift": -40, "showarrow": False, "xanchor": "center", "yanchor": "top"}]
     layout.update(barmode="group", height=HEIGHT, legend={"title": {"text": "gas scheme"}},
+                  margin={"b": 70},
                   title={"text": f"{site}, {receptor}: deposition velocity by gas scheme"})
     return {"data": data, "layout": layout}
 
