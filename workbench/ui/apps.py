@@ -34,9 +34,28 @@ LAZY_TABS = ("gas schemes",)
 #: Titles of the velocity tabs when no velocities were computed.
 NO_VELOCITIES = {"deposition velocity": "no deposition velocities (fixed or no met)",
                  "resistances": "no resistances (fixed velocities or no met)"}
-#: Width of the explorer's figures [px]: beside the assumptions in the output area of
-#: a 1,600 px window (a plot drawn in a notebook does not know its box's width).
+#: Width the explorer's figure column asks for [px] (its flex basis): beside the
+#: assumptions in the output area of a 1,600 px window, under them where the output
+#: area is narrower, and narrower still beside an open file browser (the figures fill
+#: the column: plotly sizes them to their box, :func:`column_layouts`).
 FIGURE_WIDTH = 660
+#: Width of the assumptions' column [px] (never more than the output area).
+ASSUMPTIONS_WIDTH = 460
+
+
+def column_layouts() -> dict:
+    """Layouts of the explorer's two columns and of its path boxes: none wider than the
+    output area.
+
+    Defect: with JupyterLab's file browser open the output area of a 1,000 px window
+    is about 570 px wide, and the figure column (at least 690 px) and its 660 px
+    figures ran past it (a horizontal scroll bar, the legends cut).  The figure column
+    now asks for :data:`FIGURE_WIDTH` but shrinks to the area, and the figures have no
+    width of their own (``autosize``)."""
+    return {"assumptions": widgets.Layout(width=f"{ASSUMPTIONS_WIDTH}px", max_width="100%"),
+            "figures": widgets.Layout(flex=f"1 1 {FIGURE_WIDTH + 30}px", min_width="0",
+                                      max_width="100%"),
+            "path": widgets.Layout(width=f"{ASSUMPTIONS_WIDTH - 20}px", max_width="100%")}
 #: Gases whose resistances may be shown.
 GASES = ("SO2", "HNO3", "NH3", "NO2")
 
@@ -168,7 +187,8 @@ class SiteExplorer(SavedText, widgets.VBox):
         for i, g in enumerate(groups):
             acc.set_title(i, g)
         out = output_dir()
-        path_layout = widgets.Layout(width="440px")
+        cols = column_layouts()
+        path_layout = cols["path"]
         self.save_path_w = widgets.Text(value=str(out / "my_scenario.toml"),
                                         description="scenario file", layout=path_layout)
         self.save_w = widgets.Button(description="Save scenario", icon="save",
@@ -187,12 +207,11 @@ class SiteExplorer(SavedText, widgets.VBox):
                                 widgets.HBox([self.export_w, self.overwrite_w]),
                                 self.reset_w, self.message_w])
         left = widgets.VBox([widgets.HTML("<b>Assumptions</b>"), acc, buttons],
-                            layout=widgets.Layout(width="460px"))
+                            layout=cols["assumptions"])
         right = widgets.VBox([self.change_w, self.nh3_w, self.bracket_w, self.figs["budget"],
                               self.gas_w,
                               self.tabs],
-                             layout=widgets.Layout(flex="1 1 auto",
-                                                   min_width=f"{FIGURE_WIDTH + 30}px"))
+                             layout=cols["figures"])
         head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w],
                             layout=widgets.Layout(flex_flow="row wrap"))
         # the figures go under the assumptions where the window is narrow
@@ -264,7 +283,8 @@ class SiteExplorer(SavedText, widgets.VBox):
         template it was created with), or a plotly Figure with `template` to create a
         widget."""
         spec = self._spec(name)
-        spec = {**spec, "layout": {**spec.get("layout", {}), "width": FIGURE_WIDTH}}
+        # no width: plotly fits the figure to its column (column_layouts)
+        spec = {**spec, "layout": {**spec.get("layout", {}), "autosize": True}}
         return spec if template is None else figures.from_spec(spec, template)
 
     def _spec(self, name):

@@ -80,10 +80,10 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         self.unit_w = widgets.Dropdown(options=list(UNITS), value=unit, description="unit")
         self.key_w = widgets.Dropdown(options=[(f"{a.group}: {a.label}", k) for k, a in ASSUMPTIONS.items()],
                                       value=key, description="assumption",
-                                      layout=widgets.Layout(width="560px"),
+                                      layout=widgets.Layout(width="560px", max_width="100%"),
                                       style={"description_width": "90px"})
         self.range_w = widgets.FloatRangeSlider(description="range", continuous_update=False,
-                                                layout=widgets.Layout(width="560px"),
+                                                layout=widgets.Layout(width="560px", max_width="100%"),
                                                 style={"description_width": "90px"})
         self.steps_w = widgets.IntSlider(value=SWEEP_STEPS, min=2, max=MAX_STEPS, description="values")
         self.run_w = widgets.Button(description="Run sweep", icon="play", button_style="primary")
@@ -107,7 +107,8 @@ class SensitivityExplorer(SavedText, widgets.VBox):
                             layout=widgets.Layout(flex_flow="row wrap"))   # none squeezed
         super().__init__([widgets.HTML("<h3>Sensitivity explorer</h3>"), wrap_labels_style(),
                           caution_box(), head,
-                          self.key_w, widgets.HBox([self.range_w, self.steps_w]),
+                          self.key_w, widgets.HBox([self.range_w, self.steps_w],
+                                                   layout=widgets.Layout(flex_flow="row wrap")),
                           widgets.HBox([self.run_w, self.progress]), self.note_w, self.fig,
                           self.table_w])
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML

@@ -31,16 +31,21 @@ LOG_LABEL_DECADES = 1.5
 
 
 def log_ticks(low: float, high: float) -> dict:
-    """Tick settings of a log axis running from `low` to `high` [the axis' unit]:
-    labels at the decades (or at 1, 2, 5 on a short axis), unlabelled minor ticks
-    between them."""
+    """Tick settings of a log axis running from about `low` to `high` [the axis' unit]:
+    labels at the decades, or at 1, 2 and 5 of each decade written whole (``50``,
+    ``200``: plotly's own "D2" wrote a small "5" and "2") on a short axis; unlabelled
+    minor ticks at the other digits."""
     lo, hi = (float(v) for v in (low, high))
     if not (np.isfinite(lo) and np.isfinite(hi) and 0 < lo < hi):
         return {}
-    decades = np.log10(hi / lo)
-    if decades >= LOG_LABEL_DECADES:
-        return {"dtick": 1, "minor": {"ticks": "outside", "ticklen": 3, "dtick": "D1"}}
-    return {"dtick": "D2", "minor": {"ticks": "outside", "ticklen": 3, "dtick": "D1"}}
+    minor = {"ticks": "outside", "ticklen": 3, "dtick": "D1"}
+    if np.log10(hi / lo) >= LOG_LABEL_DECADES:
+        return {"dtick": 1, "minor": minor}
+    # a margin of a decade each side: the axis runs a little past the values given
+    k = np.arange(np.floor(np.log10(lo)) - 1, np.ceil(np.log10(hi)) + 2)
+    vals = [float(d * 10.0 ** e) for e in k for d in (1, 2, 5)]
+    return {"tickmode": "array", "tickvals": vals, "ticktext": [f"{v:g}" for v in vals],
+            "minor": minor}
 
 
 #: Sample statuses drawn, in this order.

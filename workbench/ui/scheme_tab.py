@@ -41,7 +41,7 @@ class SchemeTab:
     app : workbench.ui.apps.SiteExplorer
         Gives the session, settings, site, receptor, years, unit and its last run.
     width : int
-        Width of the figures [px].
+        Most width of its lines of text [px] (the figures fill the explorer's column).
 
     Attributes
     ----------
@@ -59,7 +59,7 @@ class SchemeTab:
     def __init__(self, app, width=660):
         self.app = app
         self.width = width
-        empty = {"data": [], "layout": {"title": {"text": NOT_YET}, "width": width,
+        empty = {"data": [], "layout": {"title": {"text": NOT_YET}, "autosize": True,
                                         "height": 200}}
         self.figs = {"vd": figure_widget(figures.from_spec(empty, TEMPLATE)),
                      "budget": figure_widget(figures.from_spec(empty, TEMPLATE))}
@@ -103,7 +103,8 @@ class SchemeTab:
         return ""
 
     def _sized(self, spec):
-        return {**spec, "layout": {**spec.get("layout", {}), "width": self.width}}
+        # no width of its own: plotly fits it to the explorer's figure column
+        return {**spec, "layout": {**spec.get("layout", {}), "autosize": True}}
 
     def draw(self, force=False):
         """Compute the other scheme (cached by the session) and update the page."""
