@@ -128,3 +128,37 @@ def test_figures_in_the_site_explorers_tabs_sit_in_a_box_of_their_own(session):
     holders = [c for c in app.tabs.children
                if isinstance(c, widgets.VBox) and any(f is c.children[0] for f in app.figs.values())]
     assert len(holders) >= 5
+
+
+def _boxes(w):
+    """Every box in the widget tree under `w`."""
+    import ipywidgets as widgets
+    if not isinstance(w, widgets.Box):
+        return []
+    return [w] + [b for c in w.children for b in _boxes(c)]
+
+
+def test_the_site_explorer_fits_a_narrow_output_area(session):
+    """Defect: beside the open file browser of a 1,000 px window (output area ~570 px,
+    measured in chromium) the figure column (min-width 690 px) and its 660 px figures
+    ran past the output area.  No box of the explorer may insist on more than the area,
+    and its figures take the width of their box."""
+    import ipywidgets as widgets
+
+    from workbench.ui.apps import SiteExplorer
+    app = SiteExplorer(session, site="ridge", years=(2021, 2021))
+    left, right = app.children[-2].children           # the assumptions, the figures
+    assert right.layout.min_width == "0" and right.layout.max_width == "100%"
+    assert left.layout.max_width == "100%"
+    for w in (app.save_path_w, app.export_path_w):
+        assert w.layout.max_width == "100%"
+    from workbench.ui import apps
+    assert apps.FIGURE_WIDTH <= apps.NARROW_OUTPUT_PX - apps.TAB_PADDING_PX
+    figs = [*app.figs.items(), *(("schemes " + k, f) for k, f in app.schemes.figs.items())]
+    assert len(figs) >= 8
+    for name, f in figs:
+        assert f.layout.width == apps.FIGURE_WIDTH, name
+        holder = [b for b in _boxes(app) if any(c is f for c in b.children)]
+        assert len(holder) == 1 and holder[0].layout.overflow == "auto hidden", name
+    app.unit_w.value = "eq/ha/yr"                        # an update keeps the width
+    assert app.figs["budget"].layout.width == apps.FIGURE_WIDTH

@@ -34,11 +34,17 @@ LAZY_TABS = ("gas schemes",)
 #: Titles of the velocity tabs when no velocities were computed.
 NO_VELOCITIES = {"deposition velocity": "no deposition velocities (fixed or no met)",
                  "resistances": "no resistances (fixed velocities or no met)"}
-#: Width the explorer's figure column asks for [px] (its flex basis): beside the
-#: assumptions in the output area of a 1,600 px window, under them where the output
-#: area is narrower, and narrower still beside an open file browser (the figures fill
-#: the column: plotly sizes them to their box, :func:`column_layouts`).
-FIGURE_WIDTH = 660
+#: Output area of a notebook in a 1,000 px browser window beside JupyterLab's open
+#: file browser [px] (measured in chromium, JupyterLab 4.6): the narrowest area the
+#: explorer is made to fit.
+NARROW_OUTPUT_PX = 568
+#: What a tab's border and padding take of that width [px] (measured likewise).
+TAB_PADDING_PX = 36
+#: Width of the explorer's figures [px]: they fit a tab in the narrowest output area.
+#: plotly 7.1's FigureWidget does not follow its box: a figure without a width drew at
+#: plotly's fallback of 700 px in a box of 532 px (seen in chromium), and toggling the
+#: file browser or resizing the window did not redraw it; so the width is set.
+FIGURE_WIDTH = NARROW_OUTPUT_PX - TAB_PADDING_PX - 12
 #: Width of the assumptions' column [px] (never more than the output area).
 ASSUMPTIONS_WIDTH = 460
 
@@ -48,10 +54,10 @@ def column_layouts() -> dict:
     output area.
 
     Defect: with JupyterLab's file browser open the output area of a 1,000 px window
-    is about 570 px wide, and the figure column (at least 690 px) and its 660 px
-    figures ran past it (a horizontal scroll bar, the legends cut).  The figure column
-    now asks for :data:`FIGURE_WIDTH` but shrinks to the area, and the figures have no
-    width of their own (``autosize``)."""
+    is 568 px wide, and the figure column (at least 690 px) and its 660 px figures ran
+    past it (the legends cut).  The figure column now asks for :data:`FIGURE_WIDTH`
+    but shrinks to the area; the figures are :data:`FIGURE_WIDTH` wide, and their boxes
+    (:func:`workbench.ui.figure_open.page`) scroll rather than cut in a narrower area."""
     return {"assumptions": widgets.Layout(width=f"{ASSUMPTIONS_WIDTH}px", max_width="100%"),
             "figures": widgets.Layout(flex=f"1 1 {FIGURE_WIDTH + 30}px", min_width="0",
                                       max_width="100%"),
@@ -150,7 +156,7 @@ class SiteExplorer(SavedText, widgets.VBox):
             if name not in LAZY_TABS:
                 self.figs[name] = figure_widget(self._figure(name, TEMPLATE))
                 self._drawn[name] = self._tab_key(name)
-        self.schemes = SchemeTab(self)
+        self.schemes = SchemeTab(self, FIGURE_WIDTH)
         self.figs["budget"].add_class("wb-budget")
         self._totals = self._current_totals()
         self.change_w.value = html.escape(change_line(None, self._totals, self.unit_w.value))
@@ -160,7 +166,8 @@ class SiteExplorer(SavedText, widgets.VBox):
         # each figure in a box of its own: opened anew, it keeps its old drawing until
         # the new one has drawn, as the budget does (figure_open.page)
         pages = {n: page(self.figs.get(n)) for n in TABS}
-        pages["excluded samples"] = widgets.VBox([self.figs["excluded samples"], self.excluded_w])
+        pages["excluded samples"] = widgets.VBox([page(self.figs["excluded samples"]),
+                                                  self.excluded_w])
         pages["gas schemes"] = self.schemes.page
         self.tabs = widgets.Tab([pages[n] for n in TABS])
         self.tabs.add_class("wb-tabs")           # titles whole (WRAP_LABELS_CSS)
@@ -208,7 +215,7 @@ class SiteExplorer(SavedText, widgets.VBox):
                                 self.reset_w, self.message_w])
         left = widgets.VBox([widgets.HTML("<b>Assumptions</b>"), acc, buttons],
                             layout=cols["assumptions"])
-        right = widgets.VBox([self.change_w, self.nh3_w, self.bracket_w, self.figs["budget"],
+        right = widgets.VBox([self.change_w, self.nh3_w, self.bracket_w, page(self.figs["budget"]),
                               self.gas_w,
                               self.tabs],
                              layout=cols["figures"])
@@ -283,8 +290,7 @@ class SiteExplorer(SavedText, widgets.VBox):
         template it was created with), or a plotly Figure with `template` to create a
         widget."""
         spec = self._spec(name)
-        # no width: plotly fits the figure to its column (column_layouts)
-        spec = {**spec, "layout": {**spec.get("layout", {}), "autosize": True}}
+        spec = {**spec, "layout": {**spec.get("layout", {}), "width": FIGURE_WIDTH}}
         return spec if template is None else figures.from_spec(spec, template)
 
     def _spec(self, name):

@@ -163,8 +163,9 @@ _SELECTION = (widgets.Tab, widgets.Accordion, widgets.Stack)
 
 
 def page(child) -> widgets.Widget:
-    """A page of a Tab, Accordion or Stack holding `child`: a figure in a box of its
-    own (a VBox as wide as the page), so that a figure opened anew keeps its old
+    """A page of a Tab, Accordion or Stack (or a place in any box) holding `child`: a
+    figure in a box of its own (a VBox as wide as the page, scrolling a wider figure),
+    so that a figure opened anew keeps its old
     drawing until the new one has drawn (:meth:`OpenedWhole._wb_swap_in` in the box),
     as a figure elsewhere does; any other widget as it is.
 
@@ -172,7 +173,10 @@ def page(child) -> widgets.Widget:
     (a tab's child more is a page more), and the page showed an empty box until
     plotly's module had loaded (a flicker)."""
     if isinstance(child, go.FigureWidget):
-        return widgets.VBox([child], layout=widgets.Layout(width="100%"))
+        # as wide as its page, never wider: a figure wider than a narrow output area
+        # scrolls in its box instead of being cut
+        return widgets.VBox([child], layout=widgets.Layout(width="100%", max_width="100%",
+                                                           overflow="auto hidden"))
     return child
 
 

@@ -17,6 +17,7 @@ import ipywidgets as widgets
 
 from . import figures, figures_schemes as fs
 from .controls import figure_widget, refresh, table_html
+from .figure_open import page
 from ..species import AIR_GASES
 from .palette import TEMPLATE
 
@@ -41,7 +42,7 @@ class SchemeTab:
     app : workbench.ui.apps.SiteExplorer
         Gives the session, settings, site, receptor, years, unit and its last run.
     width : int
-        Most width of its lines of text [px] (the figures fill the explorer's column).
+        Width of the figures [px] (the explorer's :data:`~workbench.ui.apps.FIGURE_WIDTH`).
 
     Attributes
     ----------
@@ -59,7 +60,7 @@ class SchemeTab:
     def __init__(self, app, width=660):
         self.app = app
         self.width = width
-        empty = {"data": [], "layout": {"title": {"text": NOT_YET}, "autosize": True,
+        empty = {"data": [], "layout": {"title": {"text": NOT_YET}, "width": width,
                                         "height": 200}}
         self.figs = {"vd": figure_widget(figures.from_spec(empty, TEMPLATE)),
                      "budget": figure_widget(figures.from_spec(empty, TEMPLATE))}
@@ -69,8 +70,8 @@ class SchemeTab:
         self.chosen_w.add_class("wb-scheme-chosen")
         self.table_w = widgets.HTML("")
         self.page = widgets.VBox([widgets.HTML(f"<p style='max-width:{width}px'>{CAPTION}</p>"),
-                                  self.chosen_w, self.sentence_w, self.figs["vd"],
-                                  self.figs["budget"],
+                                  self.chosen_w, self.sentence_w, page(self.figs["vd"]),
+                                  page(self.figs["budget"]),
                                   self.table_w])
         self.table = None
         self.runs = {}
@@ -103,8 +104,7 @@ class SchemeTab:
         return ""
 
     def _sized(self, spec):
-        # no width of its own: plotly fits it to the explorer's figure column
-        return {**spec, "layout": {**spec.get("layout", {}), "autosize": True}}
+        return {**spec, "layout": {**spec.get("layout", {}), "width": self.width}}
 
     def draw(self, force=False):
         """Compute the other scheme (cached by the session) and update the page."""
