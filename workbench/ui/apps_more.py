@@ -11,6 +11,7 @@ from ..ranking import EVERY_COMPONENT
 from . import figures
 from .assumptions import ASSUMPTIONS, Settings
 from .controls import fit_options_width
+from .figure_open import page
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh, table_html, wrap_labels_style)
 from .session import Session
@@ -109,7 +110,7 @@ class SensitivityExplorer(SavedText, widgets.VBox):
                           caution_box(), head,
                           self.key_w, widgets.HBox([self.range_w, self.steps_w],
                                                    layout=widgets.Layout(flex_flow="row wrap")),
-                          widgets.HBox([self.run_w, self.progress]), self.note_w, self.fig,
+                          widgets.HBox([self.run_w, self.progress]), self.note_w, page(self.fig),
                           self.table_w])
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
         self.figure_export = FigureExport(lambda: {"curves": self.fig}, "sensitivity")
@@ -289,7 +290,11 @@ class NetworkOverview(SavedText, widgets.VBox):
         from .inputs_box import input_rows_box           # what became of the input rows
         super().__init__([widgets.HTML("<h3>Network overview</h3>"), caution_box(),
                           input_rows_box(self.session.study.inputs.ledger),
-                          widgets.HBox([self.unit_w, self.progress]), self.figs["totals"],
+                          widgets.HBox([self.unit_w, self.progress],
+                                       layout=widgets.Layout(flex_flow="row wrap")),
+                          # plotly draws it at the area's width, or at 700 px where it
+                          # cannot tell (beside an open file browser): it scrolls then
+                          page(self.figs["totals"]),
                           rankings, self.apart_w, self.analysis_w],
                          layout=widgets.Layout(width="100%"))
         self.add_class("wb-network")
