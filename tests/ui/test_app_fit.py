@@ -180,3 +180,5 @@ def test_the_other_apps_figures_scroll_in_their_own_box(session, two_sites_2021)
             assert len(holder) == 1 and holder[0].layout.overflow == "auto hidden"
     head = [b for b in net.children if any(c is net.progress for c in getattr(b, "children", ()))]
     assert head[0].layout.flex_flow == "row wrap"          # "ready (15.01 s)" was cut
+    # the trend table's heading was cut where the table made its box wider than the area
+    assert net.analysis_w.layout.max_width == net.apart_w.layout.max_width == "calc(100% - 4px)"

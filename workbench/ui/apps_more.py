@@ -279,8 +279,10 @@ class NetworkOverview(SavedText, widgets.VBox):
         self._analysis_parts = network_analysis_parts(self.results,
                                                       self.session.study.catalogue())
         # no width of its own: the column stretches it (a 100 % width plus the widget's
-        # margins ran 4 px past the app); a wide table scrolls inside its own box
-        self.analysis_w = widgets.HTML()
+        # margins ran 4 px past the app); at most the column's width less those margins
+        # (beside an open file browser the table made the box wider and cut its
+        # heading); a wide table scrolls inside its own box
+        self.analysis_w = widgets.HTML(layout=widgets.Layout(max_width="calc(100% - 4px)"))
         self._draw_analysis()
         self.unit_w.observe(lambda c: self._draw_analysis(), "value")
         # the two rankings side by side where the window is wide enough, else one
@@ -382,7 +384,7 @@ class NetworkOverview(SavedText, widgets.VBox):
         text = table_html(apart.rename(columns={"value": f"whole span [{unit}]"}),
                           "every site has a whole-span total holding every component")
         if create:
-            self.apart_w = widgets.HTML()
+            self.apart_w = widgets.HTML(layout=widgets.Layout(max_width="calc(100% - 4px)"))
         self.apart_w.value = ("<b>Ranked apart (partial: without a component) or not ranked "
                               "(no year passes completeness)</b>" + text
                               + self._no_data_html())
