@@ -1,9 +1,20 @@
 """Fixtures of the UI tests: small copies of the invented demo scenario, opened once."""
+import os
 import warnings
 
 import pytest
 
 from ui.demo_subset import write_demo_subset
+
+
+@pytest.fixture(autouse=True)
+def _output_in_tmp(tmp_path, monkeypatch):
+    """What an app writes by default goes into ./workbench-output of the working
+    directory (the notebook's folder): in a test, a temporary folder, never the
+    repository the tests run in."""
+    from workbench.ui.session import OUTPUT_ENV
+    if not os.environ.get(OUTPUT_ENV):
+        monkeypatch.setenv(OUTPUT_ENV, str(tmp_path / "workbench-output"))
 
 
 @pytest.fixture(scope="session")

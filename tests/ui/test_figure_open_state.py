@@ -292,3 +292,35 @@ def test_a_figure_in_a_tab_is_swapped_at_once(comms):
     sent = [m for m in tab.comm.sent if m and m.get("method") == "update"]
     assert sent[-1]["state"]["children"][1] == f"IPY_MODEL_{w.model_id}"
     assert len(sent[-1]["state"]["children"]) == 2
+
+
+def test_a_figure_in_a_page_of_its_own_keeps_its_old_drawing(comms):
+    """The apps put a tab's figure in a box of its own (figure_open.page): opened anew,
+    its box names the old and the new model until the new one has drawn, as elsewhere
+    (a figure directly in the tab was swapped at once: an empty box, a flicker)."""
+    import asyncio
+
+    import ipywidgets as widgets
+
+    from workbench.ui.figure_open import page
+    w = figure_widget(go.Figure(go.Bar(x=[1.0], y=["a"])))
+    holder = page(w)
+    tab = widgets.Tab([widgets.HTML("x"), holder])
+    assert holder is not w and list(holder.children) == [w]
+    assert page(tab.children[0]) is tab.children[0]        # not a figure: as it is
+    first = w.comm
+    closed = []
+    first.close = lambda *a, **k: closed.append(True)
+
+    async def swap():
+        refresh(w, go.Figure(go.Bar(x=[2.0], y=["a"])))
+        assert w.reopen_unless_answered(w._last_trace_edit_id)
+        assert closed == []                                 # the old drawing stays
+        sent = [m for m in holder.comm.sent if m and m.get("method") == "update"]
+        assert sent[-1]["state"]["children"] == [f"IPY_MODEL_{first.comm_id}",
+                                                 f"IPY_MODEL_{w.model_id}"]
+        w._handle_msg(_drawn_message(w))
+        assert closed == [True]
+
+    asyncio.run(swap())
+    assert not [m for m in tab.comm.sent if m and m.get("method") == "update"]

@@ -5,6 +5,8 @@ Every control of the explorer is set to a value other than the scenario's, in tw
 groups so that no setting hides another (seven fixed velocities would make the
 particle sizes irrelevant): the controls of the model, then the fixed-velocity what-ifs.
 """
+from pathlib import Path
+
 import numpy as np
 import pytest
 
@@ -69,8 +71,7 @@ def test_saved_scenario_run_as_the_cli_does_gives_the_apps_totals(session, tmp_p
                            equal_nan=True)
 
 
-def test_the_apps_write_into_the_output_folder_not_beside_the_notebook(session, tmp_path,
-                                                                       monkeypatch):
+def test_the_apps_write_into_the_output_folder(session, tmp_path, monkeypatch):
     from workbench.ui.session import OUTPUT_ENV, output_dir
     monkeypatch.setenv(OUTPUT_ENV, str(tmp_path / "out"))
     monkeypatch.chdir(tmp_path)                 # the notebook's folder
@@ -80,5 +81,22 @@ def test_the_apps_write_into_the_output_folder_not_beside_the_notebook(session, 
     path = app.save_scenario("mine.toml")
     assert path == tmp_path / "out" / "mine.toml" and path.exists()
     assert sorted(p.name for p in tmp_path.iterdir()) == ["out"]
-    monkeypatch.delenv(OUTPUT_ENV)
-    assert output_dir() == output_dir().home() / "workbench-output"
+
+
+def test_the_default_output_folder_is_in_the_folder_the_user_works_in(session, tmp_path,
+                                                                      monkeypatch):
+    """Defect: the default was ~/workbench-output, outside the project (a user looked for
+    the exported run folder beside the notebook).  Now ./workbench-output of the kernel's
+    working directory (the notebook's folder in JupyterLab), shown whole in the app."""
+    from workbench.ui.session import OUTPUT_ENV, output_dir
+    monkeypatch.delenv(OUTPUT_ENV, raising=False)
+    monkeypatch.chdir(tmp_path)                 # the notebook's folder
+    assert output_dir() == tmp_path / "workbench-output"
+    assert output_dir().is_absolute()
+    app = SiteExplorer(session, site="ridge", years=(2021, 2021))
+    assert app.export_path_w.value == str(tmp_path / "workbench-output" / "run-folder")
+    assert app.save_path_w.value == str(tmp_path / "workbench-output" / "my_scenario.toml")
+    written = app.export_run("run-folder")
+    folder = tmp_path / "workbench-output" / "run-folder"
+    assert all(Path(p).is_relative_to(folder) for p in written.values())
+    assert str(folder) in app.message_w.value        # the full path, after the export

@@ -80,11 +80,11 @@ def test_the_tab_is_computed_only_when_opened_and_draws_both_schemes(app):
     fresh = fresh_runs(app, app.settings.dry)
     for scheme in ("wesely1989", "zhang2003"):
         bars = _trace(app, scheme)
-        so2 = bars.y[list(bars.x).index("SO2")]
+        so2 = bars.x[list(bars.y).index("SO2")]   # horizontal bars
         assert so2 == pytest.approx(seasonal_mean_cm_s(fresh[scheme], "SO2", rec, [6, 7, 8]),
                                     rel=1e-9)
     # the two schemes differ: the figure shows two sets of numbers, not one twice
-    assert _trace(app, "wesely1989").y != _trace(app, "zhang2003").y
+    assert _trace(app, "wesely1989").x != _trace(app, "zhang2003").x
     diff = app.schemes.figs["budget"].data[0]
     assert "N dry" in diff.y and "dry NH3" in diff.y
 
@@ -110,14 +110,14 @@ def test_the_sentence_names_the_difference_of_two_runs(app):
 def test_a_dry_option_updates_the_open_tab(app):
     app.tabs.selected_index = TABS.index("gas schemes")
     rec = app.receptor_w.value
-    y_before = list(_trace(app, "zhang2003").y)
+    y_before = list(_trace(app, "zhang2003").x)
     sentence_before = app.schemes.sentence_w.value
     app.controls["dry.wetness_rule"].value = "always_wet"
-    y_after = list(_trace(app, "zhang2003").y)
+    y_after = list(_trace(app, "zhang2003").x)
     assert y_after != y_before
     fresh = fresh_runs(app, app.settings.dry)
     assert app.settings.dry.wetness_rule == "always_wet"
-    so2 = y_after[list(_trace(app, "zhang2003").x).index("SO2")]
+    so2 = y_after[list(_trace(app, "zhang2003").y).index("SO2")]
     assert so2 == pytest.approx(seasonal_mean_cm_s(fresh["zhang2003"], "SO2", rec, [6, 7, 8]),
                                 rel=1e-9)
     a, b = (dry_kg(fresh[s], "N", rec) for s in ("wesely1989", "zhang2003"))

@@ -14,6 +14,7 @@ import html
 import ipywidgets as widgets
 import pandas as pd
 
+from .figure_open import page
 from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh)
@@ -103,7 +104,7 @@ class SobolExplorer(SavedText, widgets.VBox):
                           caution_box(),
                           head, widgets.HBox([self.output_w, self.year_w, self.samples_w]),
                           widgets.HBox([self.run_w, self.progress]), self.note_w, self.bar_w,
-                          self.idle_w, self.fig])
+                          self.idle_w, page(self.fig)])
         from .controls import fit_descriptions
         fit_descriptions(self)                # "base samples" was cut to "base sam..."
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML

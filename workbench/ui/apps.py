@@ -19,6 +19,7 @@ from .assumptions import ASSUMPTIONS, Settings
 from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, make_control,
                        open_with_progress, refresh, set_quietly, table_html, wrap_labels_style)
+from .figure_open import page
 from .scheme_tab import SchemeTab
 from .session import Session, output_dir
 from .palette import TEMPLATE
@@ -33,9 +34,34 @@ LAZY_TABS = ("gas schemes",)
 #: Titles of the velocity tabs when no velocities were computed.
 NO_VELOCITIES = {"deposition velocity": "no deposition velocities (fixed or no met)",
                  "resistances": "no resistances (fixed velocities or no met)"}
-#: Width of the explorer's figures [px]: beside the assumptions in the output area of
-#: a 1,600 px window (a plot drawn in a notebook does not know its box's width).
-FIGURE_WIDTH = 660
+#: Output area of a notebook in a 1,000 px browser window beside JupyterLab's open
+#: file browser [px] (measured in chromium, JupyterLab 4.6): the narrowest area the
+#: explorer is made to fit.
+NARROW_OUTPUT_PX = 568
+#: What a tab's border and padding take of that width [px] (measured likewise).
+TAB_PADDING_PX = 36
+#: Width of the explorer's figures [px]: they fit a tab in the narrowest output area.
+#: plotly 7.1's FigureWidget does not follow its box: a figure without a width drew at
+#: plotly's fallback of 700 px in a box of 532 px (seen in chromium), and toggling the
+#: file browser or resizing the window did not redraw it; so the width is set.
+FIGURE_WIDTH = NARROW_OUTPUT_PX - TAB_PADDING_PX - 12
+#: Width of the assumptions' column [px] (never more than the output area).
+ASSUMPTIONS_WIDTH = 460
+
+
+def column_layouts() -> dict:
+    """Layouts of the explorer's two columns and of its path boxes: none wider than the
+    output area.
+
+    Defect: with JupyterLab's file browser open the output area of a 1,000 px window
+    is 568 px wide, and the figure column (at least 690 px) and its 660 px figures ran
+    past it (the legends cut).  The figure column now asks for :data:`FIGURE_WIDTH`
+    but shrinks to the area; the figures are :data:`FIGURE_WIDTH` wide, and their boxes
+    (:func:`workbench.ui.figure_open.page`) scroll rather than cut in a narrower area."""
+    return {"assumptions": widgets.Layout(width=f"{ASSUMPTIONS_WIDTH}px", max_width="100%"),
+            "figures": widgets.Layout(flex=f"1 1 {FIGURE_WIDTH + 30}px", min_width="0",
+                                      max_width="100%"),
+            "path": widgets.Layout(width=f"{ASSUMPTIONS_WIDTH - 20}px", max_width="100%")}
 #: Gases whose resistances may be shown.
 GASES = ("SO2", "HNO3", "NH3", "NO2")
 
@@ -130,15 +156,18 @@ class SiteExplorer(SavedText, widgets.VBox):
             if name not in LAZY_TABS:
                 self.figs[name] = figure_widget(self._figure(name, TEMPLATE))
                 self._drawn[name] = self._tab_key(name)
-        self.schemes = SchemeTab(self)
+        self.schemes = SchemeTab(self, FIGURE_WIDTH)
         self.figs["budget"].add_class("wb-budget")
         self._totals = self._current_totals()
         self.change_w.value = html.escape(change_line(None, self._totals, self.unit_w.value))
         self.nh3_w.value = self._nh3_html()
         self.bracket_w.value = self._bracket_html()
         self.excluded_w.value = self._excluded_html()
-        pages = {n: self.figs.get(n) for n in TABS}
-        pages["excluded samples"] = widgets.VBox([self.figs["excluded samples"], self.excluded_w])
+        # each figure in a box of its own: opened anew, it keeps its old drawing until
+        # the new one has drawn, as the budget does (figure_open.page)
+        pages = {n: page(self.figs.get(n)) for n in TABS}
+        pages["excluded samples"] = widgets.VBox([page(self.figs["excluded samples"]),
+                                                  self.excluded_w])
         pages["gas schemes"] = self.schemes.page
         self.tabs = widgets.Tab([pages[n] for n in TABS])
         self.tabs.add_class("wb-tabs")           # titles whole (WRAP_LABELS_CSS)
@@ -165,7 +194,8 @@ class SiteExplorer(SavedText, widgets.VBox):
         for i, g in enumerate(groups):
             acc.set_title(i, g)
         out = output_dir()
-        path_layout = widgets.Layout(width="440px")
+        cols = column_layouts()
+        path_layout = cols["path"]
         self.save_path_w = widgets.Text(value=str(out / "my_scenario.toml"),
                                         description="scenario file", layout=path_layout)
         self.save_w = widgets.Button(description="Save scenario", icon="save",
@@ -184,12 +214,11 @@ class SiteExplorer(SavedText, widgets.VBox):
                                 widgets.HBox([self.export_w, self.overwrite_w]),
                                 self.reset_w, self.message_w])
         left = widgets.VBox([widgets.HTML("<b>Assumptions</b>"), acc, buttons],
-                            layout=widgets.Layout(width="460px"))
-        right = widgets.VBox([self.change_w, self.nh3_w, self.bracket_w, self.figs["budget"],
+                            layout=cols["assumptions"])
+        right = widgets.VBox([self.change_w, self.nh3_w, self.bracket_w, page(self.figs["budget"]),
                               self.gas_w,
                               self.tabs],
-                             layout=widgets.Layout(flex="1 1 auto",
-                                                   min_width=f"{FIGURE_WIDTH + 30}px"))
+                             layout=cols["figures"])
         head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w],
                             layout=widgets.Layout(flex_flow="row wrap"))
         # the figures go under the assumptions where the window is narrow

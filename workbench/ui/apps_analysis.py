@@ -14,6 +14,7 @@ from ..analysis.exceedance import (REGIONS, acidity_exceedance, not_determined,
 from ..analysis.trends import MIN_YEARS
 from ..analysis.whatif import GROUP_TEXT, GROUPS, MODES, group_deposition, path_table, plain_statement
 from ..io.critical_loads import ACIDITY_KEYS
+from .figure_open import page
 from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh, table_html)
@@ -129,7 +130,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         super().__init__([widgets.HTML("<h3>Critical loads and what-if cuts</h3>"), caution_box(),
                           widgets.HBox([self.site_w, self.receptor_w, self.year_w]),
                           widgets.HBox([widgets.VBox(list(self.cut_w.values())), self.mode_w]),
-                          self.range_w, self.progress, self.effect_w, self.text_w, self.fig,
+                          self.range_w, self.progress, self.effect_w, self.text_w, page(self.fig),
                           self.table_w])
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
         self.figure_export = FigureExport(

@@ -11,6 +11,7 @@ from ..ranking import EVERY_COMPONENT
 from . import figures
 from .assumptions import ASSUMPTIONS, Settings
 from .controls import fit_options_width
+from .figure_open import page
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh, table_html, wrap_labels_style)
 from .session import Session
@@ -80,10 +81,10 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         self.unit_w = widgets.Dropdown(options=list(UNITS), value=unit, description="unit")
         self.key_w = widgets.Dropdown(options=[(f"{a.group}: {a.label}", k) for k, a in ASSUMPTIONS.items()],
                                       value=key, description="assumption",
-                                      layout=widgets.Layout(width="560px"),
+                                      layout=widgets.Layout(width="560px", max_width="100%"),
                                       style={"description_width": "90px"})
         self.range_w = widgets.FloatRangeSlider(description="range", continuous_update=False,
-                                                layout=widgets.Layout(width="560px"),
+                                                layout=widgets.Layout(width="560px", max_width="100%"),
                                                 style={"description_width": "90px"})
         self.steps_w = widgets.IntSlider(value=SWEEP_STEPS, min=2, max=MAX_STEPS, description="values")
         self.run_w = widgets.Button(description="Run sweep", icon="play", button_style="primary")
@@ -107,8 +108,9 @@ class SensitivityExplorer(SavedText, widgets.VBox):
                             layout=widgets.Layout(flex_flow="row wrap"))   # none squeezed
         super().__init__([widgets.HTML("<h3>Sensitivity explorer</h3>"), wrap_labels_style(),
                           caution_box(), head,
-                          self.key_w, widgets.HBox([self.range_w, self.steps_w]),
-                          widgets.HBox([self.run_w, self.progress]), self.note_w, self.fig,
+                          self.key_w, widgets.HBox([self.range_w, self.steps_w],
+                                                   layout=widgets.Layout(flex_flow="row wrap")),
+                          widgets.HBox([self.run_w, self.progress]), self.note_w, page(self.fig),
                           self.table_w])
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
         self.figure_export = FigureExport(lambda: {"curves": self.fig}, "sensitivity")
@@ -277,8 +279,10 @@ class NetworkOverview(SavedText, widgets.VBox):
         self._analysis_parts = network_analysis_parts(self.results,
                                                       self.session.study.catalogue())
         # no width of its own: the column stretches it (a 100 % width plus the widget's
-        # margins ran 4 px past the app); a wide table scrolls inside its own box
-        self.analysis_w = widgets.HTML()
+        # margins ran 4 px past the app); at most the column's width less those margins
+        # (beside an open file browser the table made the box wider and cut its
+        # heading); a wide table scrolls inside its own box
+        self.analysis_w = widgets.HTML(layout=widgets.Layout(max_width="calc(100% - 4px)"))
         self._draw_analysis()
         self.unit_w.observe(lambda c: self._draw_analysis(), "value")
         # the two rankings side by side where the window is wide enough, else one
@@ -288,7 +292,11 @@ class NetworkOverview(SavedText, widgets.VBox):
         from .inputs_box import input_rows_box           # what became of the input rows
         super().__init__([widgets.HTML("<h3>Network overview</h3>"), caution_box(),
                           input_rows_box(self.session.study.inputs.ledger),
-                          widgets.HBox([self.unit_w, self.progress]), self.figs["totals"],
+                          widgets.HBox([self.unit_w, self.progress],
+                                       layout=widgets.Layout(flex_flow="row wrap")),
+                          # plotly draws it at the area's width, or at 700 px where it
+                          # cannot tell (beside an open file browser): it scrolls then
+                          page(self.figs["totals"]),
                           rankings, self.apart_w, self.analysis_w],
                          layout=widgets.Layout(width="100%"))
         self.add_class("wb-network")
@@ -376,7 +384,7 @@ class NetworkOverview(SavedText, widgets.VBox):
         text = table_html(apart.rename(columns={"value": f"whole span [{unit}]"}),
                           "every site has a whole-span total holding every component")
         if create:
-            self.apart_w = widgets.HTML()
+            self.apart_w = widgets.HTML(layout=widgets.Layout(max_width="calc(100% - 4px)"))
         self.apart_w.value = ("<b>Ranked apart (partial: without a component) or not ranked "
                               "(no year passes completeness)</b>" + text
                               + self._no_data_html())

@@ -105,7 +105,8 @@ class OpenedWhole(go.FigureWidget):
         view and nothing else (the boxes are not sent again: a box's view re-creates
         every child view from the first child that differs, the new one included).
         Tabs and accordions are swapped at once (:meth:`_wb_attach_new`): a child more
-        there is a page more, with the titles off by one."""
+        there is a page more, with the titles off by one; the apps put their figures in
+        a page of their own (:func:`page`), where the swap is as here."""
         self.open()
         new_ref = f"IPY_MODEL_{self.model_id}"
         for box in boxes:
@@ -159,6 +160,24 @@ class OpenedWhole(go.FigureWidget):
 
 #: Boxes whose children are pages (a child more is a page more).
 _SELECTION = (widgets.Tab, widgets.Accordion, widgets.Stack)
+
+
+def page(child) -> widgets.Widget:
+    """A page of a Tab, Accordion or Stack (or a place in any box) holding `child`: a
+    figure in a box of its own (a VBox as wide as the page, scrolling a wider figure),
+    so that a figure opened anew keeps its old
+    drawing until the new one has drawn (:meth:`OpenedWhole._wb_swap_in` in the box),
+    as a figure elsewhere does; any other widget as it is.
+
+    Defect: a figure placed directly in a tab was swapped at once when opened anew
+    (a tab's child more is a page more), and the page showed an empty box until
+    plotly's module had loaded (a flicker)."""
+    if isinstance(child, go.FigureWidget):
+        # as wide as its page, never wider: a figure wider than a narrow output area
+        # scrolls in its box instead of being cut
+        return widgets.VBox([child], layout=widgets.Layout(width="100%", max_width="100%",
+                                                           overflow="auto hidden"))
+    return child
 
 
 def _event_loop():

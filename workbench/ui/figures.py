@@ -606,7 +606,8 @@ def network_ranking_bars(ranking: pd.DataFrame, element: str, unit="kg/ha/yr",
     if len(none):
         fig.add_annotation(text="No total (no year passes completeness), not ranked:<br>"
                                 + ", ".join(none),
-                           xref="paper", yref="paper", x=0, y=0, yshift=-60, showarrow=False,
+                           xref="paper", yref="paper", x=0, y=0, yshift=-RANK_AXIS_PX,
+                           showarrow=False,
                            align="left", xanchor="left", yanchor="top",
                            bgcolor=ENVELOPE_FILL)
     if not len(ranked):              # say so in the plot, not an empty pair of axes
@@ -623,6 +624,30 @@ def network_ranking_bars(ranking: pd.DataFrame, element: str, unit="kg/ha/yr",
                                  categoryarray=labels, tickmode="array", tickvals=labels,
                                  ticktext=labels, automargin=True),
                       showlegend=False,        # each bar's label names its group
-                      template=template, height=max(HEIGHT, 240 + RANK_BAR_PX * len(labels)),
-                      margin=dict(b=160))
+                      template=template)
+    fig.update_layout(**ranking_size(len(labels), 2 if len(none) else 0))
     return fig
+
+
+#: Top margin of the ranking [px]: its title and the line under it.
+RANK_TOP_PX = 90
+#: Room under the ranking's bars [px]: the value axis' numbers and title.
+RANK_AXIS_PX = 60
+#: Height of a line of the note under the ranking (the sites not ranked) [px].
+RANK_NOTE_LINE_PX = 20
+#: Least height of the ranking's plot area [px] (two or three bars stay bars).
+RANK_PLOT_MIN_PX = 120
+
+
+def ranking_size(n_bars: int, note_lines: int = 0) -> dict:
+    """Height and margins [px] of a ranking of `n_bars` bars, with a note of
+    `note_lines` lines under its axis: sized to what it holds.
+
+    Defect: a fixed bottom margin of 160 px (room for a note that most rankings do not
+    have) and a height of at least 420 px left about 150 px of white under the
+    network overview's rankings.
+    """
+    bottom = RANK_AXIS_PX + (RANK_NOTE_LINE_PX * note_lines + 20 if note_lines else 0)
+    plot = max(RANK_PLOT_MIN_PX, RANK_BAR_PX * n_bars)
+    return {"height": RANK_TOP_PX + plot + bottom,
+            "margin": {"t": RANK_TOP_PX, "b": bottom}}

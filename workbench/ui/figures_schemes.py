@@ -22,6 +22,10 @@ GASES = ("SO2", "HNO3", "NH3", "NO2", "O3")
 SCHEME_COLOURS = {"wesely1989": "#0072B2", "zhang2003": "#D55E00"}
 CM_PER_M = 100.0
 HEIGHT = 380
+#: Most ticks on the Vd axis of a season panel (about 80 px wide in the site
+#: explorer's 520 px figure): three numbers stand level without touching the next
+#: panel's.
+VD_TICKS = 3
 
 
 def seasonal_vd(vd_by_scheme: dict, site, receptor, gases=GASES) -> pd.DataFrame:
@@ -57,28 +61,42 @@ def seasonal_vd(vd_by_scheme: dict, site, receptor, gases=GASES) -> pd.DataFrame
 
 
 def scheme_vd_spec(vd_by_scheme: dict, site, receptor, gases=GASES) -> dict:
-    """Spec of grouped bars: mean Vd by gas, one panel per season, one colour per scheme.
+    """Spec of grouped horizontal bars: mean Vd by gas, one panel per season, one colour
+    per scheme.
 
-    Parameters as :func:`seasonal_vd`.
+    The gases stand on the shared y axis, read level (upright bars in four panels of a
+    660 px figure left each panel about 130 px for five names, and plotly stood them
+    on end), the first gas on top.  Parameters as :func:`seasonal_vd`.
     """
     t = seasonal_vd(vd_by_scheme, site, receptor, gases)
     base, axes = subplot_layout(1, len(SEASON_NAMES), shared_yaxes=True,
-                                subplot_titles=tuple(SEASON_NAMES), horizontal_spacing=0.03)
+                                subplot_titles=tuple(SEASON_NAMES), horizontal_spacing=0.05)
     layout = json.loads(base)
     data = []
+    v = t["vd_cm_s"].to_numpy(dtype=float)
+    top = float(np.nanmax(v)) * 1.05 if np.isfinite(v).any() else 1.0
     for col, season in enumerate(SEASON_NAMES):
         xname, yname = axes[col]
         for scheme in vd_by_scheme:
             sel = t[(t.season == season) & (t.scheme == scheme)].set_index("species")
-            y = [None if not np.isfinite(sel.loc[g, "vd_cm_s"]) else float(sel.loc[g, "vd_cm_s"])
+            x = [None if not np.isfinite(sel.loc[g, "vd_cm_s"]) else float(sel.loc[g, "vd_cm_s"])
                  for g in gases]
-            data.append({"type": "bar", "name": scheme, "x": list(gases), "y": y,
-                         "legendgroup": scheme, "showlegend": col == 0,
+            data.append({"type": "bar", "orientation": "h", "name": scheme, "x": x,
+                         "y": list(gases), "legendgroup": scheme, "showlegend": col == 0,
                          "marker": {"color": SCHEME_COLOURS.get(scheme, "#999999")},
+                         "hovertemplate": f"{season} · %{{y}} · {scheme}: %{{x:.3g}} cm s-1"
+                                          "<extra></extra>",
                          "xaxis": xname.replace("axis", ""), "yaxis": yname.replace("axis", "")})
-    layout[axes[0][1]]["title"] = {"text": "mean Vd (cm s-1)"}
+        # one scale in every season (read across); few numbers, level
+        layout[xname].update(tickangle=0, nticks=VD_TICKS, range=[0, top])
+        layout[yname].update(autorange="reversed", tickangle=0)
+    layout[axes[0][1]]["title"] = {"text": "gas"}
+    layout["annotations"] = layout.get("annotations", []) + [{
+        "text": "mean Vd (cm s-1)", "xref": "paper", "yref": "paper", "x": 0.5, "y": 0,
+        "yshift": -40, "showarrow": False, "xanchor": "center", "yanchor": "top"}]
     layout.update(barmode="group", height=HEIGHT, legend={"title": {"text": "gas scheme"}},
-                  title={"text": f"{site}, {receptor}: deposition velocity by gas scheme"})
+                  margin={"b": 70},
+                  title={"text": f"{site}, {receptor}:<br>deposition velocity by gas scheme"})
     return {"data": data, "layout": layout}
 
 
@@ -122,7 +140,7 @@ def budget_difference_spec(table: pd.DataFrame, site, receptor, period="span") -
             for s in wide.columns if s != "difference"]
     return {"data": data, "layout": {
         "barmode": "group", "height": HEIGHT,
-        "title": {"text": f"{site}, {receptor}: dry deposition by gas scheme ({period})"},
+        "title": {"text": f"{site}, {receptor}:<br>dry deposition by gas scheme ({period})"},
         "yaxis": {"title": {"text": "kg S or N ha-1 yr-1"}},
         "legend": {"title": {"text": "gas scheme"}}}}
 
@@ -269,7 +287,7 @@ def budget_change_spec(table: pd.DataFrame, site, receptor, unit="kg/ha/yr") -> 
                                f"%{{customdata[2]}}; difference %{{x:.3g}} (%{{text}})<extra></extra>")}
     return {"data": [trace], "layout": {
         "height": 60 + 26 * len(rows), "showlegend": False,
-        "title": {"text": f"{site}, {receptor}: budget under {b} minus under {a}"},
+        "title": {"text": f"{site}, {receptor}:<br>budget under {b} minus under {a}"},
         "xaxis": {"title": {"text": axis_text(unit)}, "zeroline": True,
                   "range": label_room(x)},
         "margin": {"l": 90}}}

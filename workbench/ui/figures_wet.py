@@ -24,6 +24,30 @@ ENVELOPE_HEADROOM = 1.5
 HEIGHT = 420
 #: Counts up to this get a tick at every whole number.
 INTEGER_TICKS_UP_TO = 10
+#: A log axis spanning at least this many decades is labelled at its decades only;
+#: a shorter one at 1, 2 and 5 of each decade.  plotly labelled every digit (2, 3 ... 9)
+#: of the ion balance's axes in a 660 px figure: the labels ran into each other.
+LOG_LABEL_DECADES = 1.5
+
+
+def log_ticks(low: float, high: float) -> dict:
+    """Tick settings of a log axis running from about `low` to `high` [the axis' unit]:
+    labels at the decades, or at 1, 2 and 5 of each decade written whole (``50``,
+    ``200``: plotly's own "D2" wrote a small "5" and "2") on a short axis; unlabelled
+    minor ticks at the other digits."""
+    lo, hi = (float(v) for v in (low, high))
+    if not (np.isfinite(lo) and np.isfinite(hi) and 0 < lo < hi):
+        return {}
+    minor = {"ticks": "outside", "ticklen": 3, "dtick": "D1"}
+    if np.log10(hi / lo) >= LOG_LABEL_DECADES:
+        return {"dtick": 1, "minor": minor}
+    # a margin of a decade each side: the axis runs a little past the values given
+    k = np.arange(np.floor(np.log10(lo)) - 1, np.ceil(np.log10(hi)) + 2)
+    vals = [float(d * 10.0 ** e) for e in k for d in (1, 2, 5)]
+    return {"tickmode": "array", "tickvals": vals, "ticktext": [f"{v:g}" for v in vals],
+            "minor": minor}
+
+
 #: Sample statuses drawn, in this order.
 STATUSES = ("used", "flagged", "excluded")
 
@@ -99,8 +123,10 @@ def ion_balance_spec(screened, site=None, options: WetOptions | None = None, sta
         data.append(_markers(an[m], ce[m], st, int(m.sum()), hover[m].tolist(),
                              "AN %{x:.4g}, CE %{y:.4g} ueq/L<br>%{customdata}<extra></extra>"))
     layout = {"title": {"text": "Ion balance: cations against anions" + (f" · {site}" if site else "")},
-              "xaxis": {"title": {"text": "anion sum AN [ueq L-1]"}, "type": "log"},
-              "yaxis": {"title": {"text": "cation sum CE [ueq L-1]"}, "type": "log"},
+              "xaxis": {"title": {"text": "anion sum AN [ueq L-1]"}, "type": "log",
+                        **log_ticks(low / 2, top / 2)},
+              "yaxis": {"title": {"text": "cation sum CE [ueq L-1]"}, "type": "log",
+                        **log_ticks(low / 2, top / 2)},
               "height": HEIGHT, "legend": {"title": {"text": "sample status"}}}
     return {"data": data, "layout": layout}
 

@@ -17,6 +17,7 @@ import ipywidgets as widgets
 
 from . import figures, figures_schemes as fs
 from .controls import figure_widget, refresh, table_html
+from .figure_open import page
 from ..species import AIR_GASES
 from .palette import TEMPLATE
 
@@ -41,7 +42,7 @@ class SchemeTab:
     app : workbench.ui.apps.SiteExplorer
         Gives the session, settings, site, receptor, years, unit and its last run.
     width : int
-        Width of the figures [px].
+        Width of the figures [px] (the explorer's :data:`~workbench.ui.apps.FIGURE_WIDTH`).
 
     Attributes
     ----------
@@ -69,8 +70,8 @@ class SchemeTab:
         self.chosen_w.add_class("wb-scheme-chosen")
         self.table_w = widgets.HTML("")
         self.page = widgets.VBox([widgets.HTML(f"<p style='max-width:{width}px'>{CAPTION}</p>"),
-                                  self.chosen_w, self.sentence_w, self.figs["vd"],
-                                  self.figs["budget"],
+                                  self.chosen_w, self.sentence_w, page(self.figs["vd"]),
+                                  page(self.figs["budget"]),
                                   self.table_w])
         self.table = None
         self.runs = {}

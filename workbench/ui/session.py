@@ -38,15 +38,21 @@ OPEN_STEPS = ("site catalogue", "precipitation samples", "air concentrations",
 
 #: Environment variable naming the folder of the apps' saved scenarios and run folders.
 OUTPUT_ENV = "WORKBENCH_OUTPUT"
+#: Name of the output folder in the working directory (:func:`output_dir`).
+OUTPUT_NAME = "workbench-output"
 
 
 def output_dir() -> Path:
-    """Folder of what the apps write (saved scenarios, exported run folders).
+    """Folder of what the apps write (saved scenarios, exported run folders, figures),
+    as an absolute path.
 
-    ``$WORKBENCH_OUTPUT`` when set, else ``~/workbench-output``: never the notebook's
-    folder, so that using a notebook leaves nothing in the repository.
+    ``$WORKBENCH_OUTPUT`` when set, else ``workbench-output`` in the folder the user
+    works in: the kernel's working directory, which JupyterLab and Voila set to the
+    notebook's folder (it was ``~/workbench-output``, a folder outside the project
+    that a user did not look in).  In this repository's ``notebooks/`` that folder is
+    ignored by git (``.gitignore`` keeps only the notebooks there).
     """
-    return Path(os.environ.get(OUTPUT_ENV) or Path.home() / "workbench-output").expanduser()
+    return Path(os.environ.get(OUTPUT_ENV) or Path.cwd() / OUTPUT_NAME).expanduser().absolute()
 
 
 def _say(progress, text, fraction=None):
