@@ -313,6 +313,10 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
         span[["site", "receptor", "element", "flux_kg_ha_yr", "flux_eq_ha_yr", "status",
               "missing_components", "years_used", "years_excluded"]]))
     parts.append("<h2>Whole span: mean of the years that pass completeness</h2>")
+    if not span.empty:
+        from .tables import SPAN_STATUS_WORDS
+        parts.append("<p>Status of a whole-span row: " + html.escape(SPAN_STATUS_WORDS)
+                     + ".</p>")
     parts.append(fold(whole, len(span), "every site and receptor") if network else whole)
     parts.extend(_exceedance_html(result, study, network, ex))
     parts.append("<h2>Totals per period [kg/ha/yr of S or N]</h2>")

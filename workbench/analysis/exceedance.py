@@ -480,9 +480,10 @@ def exceedance_probability(table: pd.DataFrame, draws: xr.Dataset,
     DataFrame
         Aligned with `table`: ``p_exceed_acidity`` and ``p_exceed_nutrient_n`` (share
         of the draws whose exceedance is > 0 [1]), the 5, 50 and 95 % quantiles of
-        ``ex_acidity_eq_ha_yr``, ``s_dep_eq_ha_yr`` and ``n_dep_eq_ha_yr``
-        [eq ha-1 yr-1].  NaN where the row has no draws or a draw is NaN or negative
-        (net emission).
+        ``ex_acidity_eq_ha_yr``, ``ex_nutrient_n_eq_ha_yr``, ``s_dep_eq_ha_yr`` and
+        ``n_dep_eq_ha_yr`` [eq ha-1 yr-1], each over the same draws.  NaN where the row
+        has no draws or a draw is NaN or negative (net emission), and an exceedance
+        quantile of 0 on a partial deposition (not determined, as the point value).
 
     Notes
     -----
@@ -512,7 +513,8 @@ def exceedance_probability(table: pd.DataFrame, draws: xr.Dataset,
         ok = np.isfinite(v).all(0)
         p = np.where(ok, (np.nan_to_num(v) > 0).mean(0), np.nan)
         out[name] = np.where(lower & (p == 0), np.nan, p)
-    for name, v in (("ex_acidity_eq_ha_yr", ex), ("s_dep_eq_ha_yr", s), ("n_dep_eq_ha_yr", n)):
+    for name, v in (("ex_acidity_eq_ha_yr", ex), ("ex_nutrient_n_eq_ha_yr", ex_n),
+                    ("s_dep_eq_ha_yr", s), ("n_dep_eq_ha_yr", n)):
         qs = np.quantile(v, DRAW_QUANTILES, axis=0)                    # NaN where any is NaN
         if name.startswith("ex_"):
             qs = np.where(lower & (qs == 0), np.nan, qs)
