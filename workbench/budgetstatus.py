@@ -248,6 +248,13 @@ def wet_mean_status(w, name, w_status, fallback=False):
         said = np.array([isinstance(x, str) and x != "" for x in est.ravel()],
                         bool).reshape(shape) & (status != "missing")
         notes.append((said, np.where(said, est, "").astype(str)))
+    if ion == "SO4" and "SO4_seasalt_floor" in v:
+        # a SO4 below detection beside the tracer: its sea salt is its floor (said, the
+        # status kept: a value below detection is a measurement; methods_wet.md 3.1)
+        floor = w["SO4_seasalt_floor"].transpose(*dims).values
+        said = np.array([isinstance(x, str) and x != "" for x in floor.ravel()],
+                        bool).reshape(shape) & (status != "missing")
+        notes.append((said, np.where(said, floor, "").astype(str)))
     status = np.where(soft & np.isin(status, ("complete", "filled")), "flagged", status)
     precip = (w["precipitation"].transpose(*dims).values if "precipitation" in v
               else np.full(shape, np.nan))
