@@ -109,3 +109,23 @@ def test_a_run_with_draws_writes_them(tmp_path):
             want = np.where(want == 0, np.nan, want)
         np.testing.assert_allclose(got, want, rtol=1e-9)
         assert np.isfinite(got).any()
+
+
+def test_the_report_table_shows_both_ranges():
+    """report.html's exceedance table carries, with draws, the probability and the 5 %
+    and 95 % of both exceedances (it showed neither), and a line on what they hold."""
+    from workbench.report import _exceedance_html
+    row = {"site": "moss", "receptor": "heath", "period": "span", "s_dep_eq_ha_yr": 300.0,
+           "n_dep_eq_ha_yr": 800.0, "ex_acidity_eq_ha_yr": 0.0, "region": 0,
+           "ex_nutrient_n_eq_ha_yr": 100.0, "status": "complete", "note": "",
+           "p_exceed_acidity": 0.0, "ex_acidity_eq_ha_yr_p05": 0.0,
+           "ex_acidity_eq_ha_yr_p95": 0.0, "p_exceed_nutrient_n": 0.75,
+           "ex_nutrient_n_eq_ha_yr_p05": 11.5, "ex_nutrient_n_eq_ha_yr_p95": 346.5}
+    page = "".join(_exceedance_html(None, None, ex=pd.DataFrame([row])))
+    for head in ("p nutrient N", "nutrient N 5 %", "nutrient N 95 %", "p acidity"):
+        assert f"<th>{head}</th>" in page, head
+    assert "346" in page and "11.5" in page
+    assert "the critical loads are taken as exact" in page
+    plain = "".join(_exceedance_html(None, None, ex=pd.DataFrame([row]).drop(
+        columns=[k for k in row if k.startswith("p_") or k.endswith(("_p05", "_p95"))])))
+    assert "p nutrient N" not in plain and "With the Monte Carlo" not in plain
