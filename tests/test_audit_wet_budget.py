@@ -180,11 +180,17 @@ def test_a_wet_mean_made_of_substitutes_only_says_so(treatment, words, factor):
     st, note, dep, _ = wet_component(w, "SO4", BudgetOptions(sulfate_basis="total"),
                                      w["status"].values.astype(object),
                                      w["completeness_failed"].values)
-    assert dep[0, 0] == pytest.approx(factor * 2.0 * 1e-3 * 20e-3)        # mol m-2
-    assert dep[0, 1] == pytest.approx((factor * 2.0 * 20 + 1.0 * 10) * 1e-3 * 1e-3)
+    # beside Na = 2 umol/L the substitute is the sea salt S = 0.0605 x 2 plus factor x
+    # (2 - S) (docs/methods_wet.md 3.1, tests/wet/test_censored_so4_seasalt.py)
+    sub = 0.0605 * 2.0 + factor * (2.0 - 0.0605 * 2.0)
+    assert dep[0, 0] == pytest.approx(sub * 1e-3 * 20e-3)                  # mol m-2
+    assert dep[0, 1] == pytest.approx((sub * 20 + 1.0 * 10) * 1e-3 * 1e-3)
     assert st[0, 0] == "complete" and st[0, 1] == "complete"
-    assert f"SO4 below detection in all 2 valid samples ({words} used)" in note[0, 0]
-    assert "below detection" not in note[0, 1]
+    assert (f"SO4 below detection in all 2 valid samples ({words} used; beside Na: the "
+            "sea salt plus that share of (limit - sea salt))") in note[0, 0]
+    assert "SO4 below detection beside Na in 2 samples" in note[0, 0]
+    assert "below detection in all" not in note[0, 1]
+    assert "SO4 below detection beside Na in 2 samples" in note[0, 1]    # the floor, said
     # NO3 was measured in every week: no note about it on the NO3 row
     _, note_no3, _, _ = wet_component(w, "NO3", BudgetOptions(), w["status"].values.astype(object),
                                       w["completeness_failed"].values)

@@ -33,3 +33,40 @@ def test_demo_totals_in_plain_numbers_and_the_two_counts_of_flags_told_apart(tmp
     assert any("," in v for v in eq)                 # the farm's N is above 1,000
     screening = next(line for line in out.splitlines() if line.startswith("precipitation screening"))
     assert "used with a QA flag" in screening and "samples.csv" in screening
+
+
+def test_a_flagged_span_row_and_the_console_agree_on_the_years(tmp_path, capsys):
+    """A flagged whole-span row of budget.csv lists every year in years_used while the
+    console's heading says "mean of the years that pass completeness" and its legend
+    said "flagged (fails completeness, ...)": read together, the mean seemed to take
+    failing years.  The file is right (a year flagged only for kept flagged samples
+    passes: budget.csv's ``passes``, and the span is the plain mean of those years, by
+    hand here); the legend now says what a span row's flagged means."""
+    import numpy as np
+    import pandas as pd
+
+    from workbench.cli import main
+    assert main(["demo", "--out", str(tmp_path / "run"), "--quiet"]) == 0
+    out = capsys.readouterr().out
+    legend = out.split("whole-span totals")[1].split("\nstatus: ")[1].split("\n")[0]
+    assert "fails completeness, or" not in legend
+    assert "every year in years_used passes completeness" in legend
+    t = pd.read_csv(tmp_path / "run" / "budget.csv", dtype={"period": str})
+    tot = t[(t["pathway"] == "total") & (t["species"] == "all")]
+    span = tot[tot["period"] == "span"]
+    flagged = span[span["status"] == "flagged"]
+    assert len(flagged)                                  # the demo plants some
+    for r in flagged.itertuples():
+        years = tot[(tot["site"] == r.site) & (tot["receptor"] == r.receptor)
+                    & (tot["element"] == r.element) & (tot["period"] != "span")]
+        used = set(str(r.years_used).split())
+        ok = years[years["passes"].astype(str).str.lower() == "true"]
+        assert used == set(ok["period"])                 # years_used: those that pass
+        # the mean of the years used, by hand
+        assert abs(r.flux_kg_ha_yr - np.mean(ok["flux_kg_ha_yr"])) <= 1e-9 * abs(r.flux_kg_ha_yr)
+        # and the console's row shows the same years
+        line = next(x for x in out.split("whole-span totals")[1].splitlines()
+                    if x.split()[:3] == [r.site, r.receptor, r.element])
+        assert line.split()[-len(used):] == sorted(used)
+    report = (tmp_path / "run" / "report.html").read_text()
+    assert "Status of a whole-span row" in report

@@ -248,6 +248,14 @@ def wet_mean_status(w, name, w_status, fallback=False):
         said = np.array([isinstance(x, str) and x != "" for x in est.ravel()],
                         bool).reshape(shape) & (status != "missing")
         notes.append((said, np.where(said, est, "").astype(str)))
+    floor_said = np.zeros(shape, bool)
+    if ion == "SO4" and "SO4_seasalt_floor" in v:
+        # a SO4 below detection beside the tracer: its sea salt is its floor (said, the
+        # status kept: a value below detection is a measurement; methods_wet.md 3.1)
+        floor = w["SO4_seasalt_floor"].transpose(*dims).values
+        floor_said = np.array([isinstance(x, str) and x != "" for x in floor.ravel()],
+                              bool).reshape(shape) & (status != "missing")
+        notes.append((floor_said, np.where(floor_said, floor, "").astype(str)))
     status = np.where(soft & np.isin(status, ("complete", "filled")), "flagged", status)
     precip = (w["precipitation"].transpose(*dims).values if "precipitation" in v
               else np.full(shape, np.nan))
@@ -284,9 +292,11 @@ def wet_mean_status(w, name, w_status, fallback=False):
                                  "a substitute")
         n_val = np.nan_to_num(w["ion_n_valid"].sel(ion=ion).transpose(*dims).values
                               if "ion_n_valid" in v else np.zeros(shape)).astype(int)
-        notes.append((subs, np.char.add(np.char.add(f"{ion} below detection in all ",
-                                                    n_val.astype(str)),
-                                        f" valid samples ({how} used)")))
+        how = np.where(floor_said, f"{how} used; beside {tracer}: the sea salt plus that "
+                       "share of (limit - sea salt)", f"{how} used")
+        notes.append((subs, np.char.add(np.char.add(np.char.add(
+            f"{ion} below detection in all ", n_val.astype(str)), " valid samples ("),
+            np.char.add(how.astype(str), ")"))))
     status = np.where(low, "flagged", status)
     dep = (w[f"dep_{name}"].transpose(*dims).values.astype(float) if f"dep_{name}" in v
            else np.full(shape, np.nan))

@@ -423,13 +423,13 @@ def cmd_demo(args) -> int:
         print("whole-span totals (mean of the years that pass completeness):")
         cols = ["site", "receptor", "element", "flux_kg_ha_yr", "flux_eq_ha_yr", "status",
                 "missing_components", "years_used"]
+        if "years_excluded" in span and span["years_excluded"].fillna("").astype(str).ne("").any():
+            cols.append("years_excluded")
         print(span[[c for c in cols if c in span]].to_string(
             index=False, formatters={"flux_kg_ha_yr": "{:.3g}".format,
                                      "flux_eq_ha_yr": "{:,.0f}".format}))
-        print("status: complete (every component, passes completeness); filled (gaps "
-              "filled); partial (a component has no data: missing_components names it, "
-              "here and per year in budget.csv); flagged (fails completeness, or holds "
-              "something to read with care: report.html says which)")
+        from .tables import SPAN_STATUS_WORDS
+        print("status: " + SPAN_STATUS_WORDS)
     print()
     print(f"report: {written['report.html']}")
     return 0

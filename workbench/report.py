@@ -147,7 +147,22 @@ def _exceedance_html(result, study, network=False, ex=None) -> list:
                "loads carry their own uncertainty.</p>")
     cols = ["site", "receptor", "s_dep_eq_ha_yr", "n_dep_eq_ha_yr", "ex_acidity_eq_ha_yr",
             "region", "ex_nutrient_n_eq_ha_yr", "status", "note"]
-    table = _table_html(span[cols])
+    drawn = ["p_exceed_acidity", "ex_acidity_eq_ha_yr_p05", "ex_acidity_eq_ha_yr_p95",
+             "p_exceed_nutrient_n", "ex_nutrient_n_eq_ha_yr_p05", "ex_nutrient_n_eq_ha_yr_p95"]
+    if all(c in span for c in drawn):
+        out.append("<p>With the Monte Carlo (section Uncertainty): p is the share of the "
+                   "draws of the S and N totals whose exceedance is above 0, and 5 % / 95 % "
+                   "the quantiles of each exceedance over the same draws (each column its "
+                   "own quantile; the critical loads are taken as exact, so p leaves out "
+                   "their uncertainty). On a partial deposition (a lower bound) a p or a "
+                   "quantile above 0 is at least that, and a 0 is not determined (empty). "
+                   "p carries a Monte Carlo error of about sqrt(p (1 - p) / draws).</p>")
+        cols = cols[:-2] + drawn + cols[-2:]
+    table = _table_html(span[cols].rename(columns={
+        "p_exceed_acidity": "p acidity", "ex_acidity_eq_ha_yr_p05": "acidity 5 %",
+        "ex_acidity_eq_ha_yr_p95": "acidity 95 %", "p_exceed_nutrient_n": "p nutrient N",
+        "ex_nutrient_n_eq_ha_yr_p05": "nutrient N 5 %",
+        "ex_nutrient_n_eq_ha_yr_p95": "nutrient N 95 %"}))
     out.append(fold(table, len(span), "the exceedance of every site and receptor")
                if network else table)
     return out
@@ -313,6 +328,10 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
         span[["site", "receptor", "element", "flux_kg_ha_yr", "flux_eq_ha_yr", "status",
               "missing_components", "years_used", "years_excluded"]]))
     parts.append("<h2>Whole span: mean of the years that pass completeness</h2>")
+    if not span.empty:
+        from .tables import SPAN_STATUS_WORDS
+        parts.append("<p>Status of a whole-span row: " + html.escape(SPAN_STATUS_WORDS)
+                     + ".</p>")
     parts.append(fold(whole, len(span), "every site and receptor") if network else whole)
     parts.extend(_exceedance_html(result, study, network, ex))
     parts.append("<h2>Totals per period [kg/ha/yr of S or N]</h2>")
@@ -326,9 +345,10 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
                       "the totals of every site, receptor and period") if network else pivot)
     parts.extend(_schemes_html(all_schemes, network))
     parts.extend(_nh3_html(result, network))
-    from .analysis.uncertainty import report_section
+    from .analysis.uncertainty import bulk_state, report_section
     parts.extend(report_section(t, _table_html,
-                                getattr(result.options.get("uncertainty"), "options", None)))
+                                getattr(result.options.get("uncertainty"), "options", None),
+                                bulk_state(result)))
     parts.append("<h2>Dry nitrogen: the gas/particle bracket [kg N/ha per period]</h2>")
     parts.append("<p>Ammonium nitrate on filters shifts mass between HNO3 and pNO3 and between "
                  "NH3 and pNH4; HNO3 deposits far faster than pNO3. The bracket puts each pair "

@@ -24,7 +24,8 @@ from .wet.options import WetOptions
 from .pairfill import fill_value
 
 #: Wet options that act on periods only (completeness, fills, sea salt): the wet
-#: chain's own reads.  The screening reads every other wet option.
+#: chain's own reads.  The screening reads every other wet option, and the sea-salt
+#: tracer (a SO4 below detection beside it takes the sea salt as its floor).
 WET_PERIOD_OPTIONS = ("hydro_start_month", "straddle", "min_gauge_fraction",
                       "min_coverage_fraction", "min_valid_precip_fraction", "min_valid_samples",
                       "period_fill", "seasalt_tracer")
@@ -63,7 +64,7 @@ def sample_flags(o, precipitation):
     return {"codes": codes, "unknown": unknown}
 
 
-@stage("screen", reads={"wet": WET_QA_OPTIONS}, counts_as="screened")
+@stage("screen", reads={"wet": WET_QA_OPTIONS + ("seasalt_tracer",)}, counts_as="screened")
 def screen(o, precipitation, met, flags=None):
     """Per-sample QA of the precipitation chemistry."""
     from .wet import screen as _screen

@@ -219,6 +219,22 @@ def fullest_years(ok, missing) -> np.ndarray:
     return flat_out.reshape(ok.shape)
 
 
+#: What the status of a whole-span row means (the demo's console line under its span
+#: table, report.html under its "Whole span" table).  A span row averages only the years
+#: that pass completeness (``years_used``): its ``flagged`` never means that it fails
+#: completeness, but that a year it uses passes while holding something to read with care
+#: (kept flagged samples, a sulfate fallback);
+#: the per-period legend's "fails completeness" read there made a flagged row listing
+#: every year look like a mean over failing years.
+SPAN_STATUS_WORDS = (
+    "complete (every component, every year used passes completeness); filled (gaps "
+    "filled in a year used); partial (a component has no data: missing_components names "
+    "it, here and per year in budget.csv); flagged (every year in years_used passes "
+    "completeness, but a component of one is flagged for another reason to read with "
+    "care, e.g. flagged samples kept or total sulfate for want of a sea-salt tracer: the "
+    "notes of budget.csv and report.html say which year and why). A year that fails "
+    "completeness is never in the mean: years_excluded lists it")
+
 #: Note of a span row whose years left out hold fewer components (:func:`fullest_years`).
 FEWER_PARTS_NOTE = "years left out for a smaller sum (without {}): {}"
 

@@ -502,11 +502,13 @@ def exceedance_probability(table: pd.DataFrame, draws: xr.Dataset,
     DataFrame
         Aligned with `table`: ``p_exceed_acidity`` and ``p_exceed_nutrient_n`` (share
         of the draws whose exceedance is > 0 [1]), the 5, 50 and 95 % quantiles of
-        ``ex_acidity_eq_ha_yr``, ``s_dep_eq_ha_yr`` and ``n_dep_eq_ha_yr``
-        [eq ha-1 yr-1].  NaN where the row has no draws or a draw is NaN or negative
-        (net emission), and where a 0 rests on a partial deposition: `lower_bound`
-        (bool per row: the S or N total is partial) for acidity, `lower_bound_n` (the N
-        total is partial; default `lower_bound`) for nutrient N.
+        ``ex_acidity_eq_ha_yr``, ``ex_nutrient_n_eq_ha_yr``, ``s_dep_eq_ha_yr`` and
+        ``n_dep_eq_ha_yr`` [eq ha-1 yr-1], each over the same draws.  NaN where the row
+        has no draws or a draw is NaN or negative (net emission), and where a 0 (a
+        probability or an exceedance quantile) rests on a partial deposition (not
+        determined, as the point value): `lower_bound` (bool per row: the S or N total
+        is partial) for acidity, `lower_bound_n` (the N total is partial; default
+        `lower_bound`) for nutrient N.
 
     Notes
     -----
@@ -537,10 +539,11 @@ def exceedance_probability(table: pd.DataFrame, draws: xr.Dataset,
         ok = np.isfinite(v).all(0)
         p = np.where(ok, (np.nan_to_num(v) > 0).mean(0), np.nan)
         out[name] = np.where(lb & (p == 0), np.nan, p)
-    for name, v in (("ex_acidity_eq_ha_yr", ex), ("s_dep_eq_ha_yr", s), ("n_dep_eq_ha_yr", n)):
+    for name, v, lb in (("ex_acidity_eq_ha_yr", ex, lower), ("ex_nutrient_n_eq_ha_yr", ex_n, lower_n),
+                        ("s_dep_eq_ha_yr", s, lower), ("n_dep_eq_ha_yr", n, lower)):
         qs = np.quantile(v, DRAW_QUANTILES, axis=0)                    # NaN where any is NaN
         if name.startswith("ex_"):
-            qs = np.where(lower & (qs == 0), np.nan, qs)
+            qs = np.where(lb & (qs == 0), np.nan, qs)
         for qi, suffix in enumerate(DRAW_SUFFIXES):
             out[name + suffix] = qs[qi]
     return pd.DataFrame(out, index=table.index)

@@ -4,6 +4,8 @@ See :func:`workbench.analysis.uncertainty.add_quantiles`, which calls these.
 """
 from __future__ import annotations
 
+import types  # noqa: F401  (the doctest of bulk_in_force)
+
 import numpy as np
 import pandas as pd
 import xarray as xr
@@ -159,26 +161,64 @@ def summary_dataset(q) -> xr.Dataset:
                                    "period": b["period"].values})
 
 
-def draws_in_force(options) -> str:
+def bulk_in_force(options, bulk=None) -> tuple:
+    """Whether the report names the bulk collector's factor as drawn, and why not.
+
+    Parameters
+    ----------
+    options : UncertaintyOptions
+    bulk : tuple, optional
+        ``(bulk_correction, drawn)``: the run's ``[budget] bulk_correction`` and whether
+        a factor was drawn at any site; None where not known (then the factor counts as
+        drawn wherever ``bulk_factor_rel_sd`` > 0).
+
+    Returns
+    -------
+    (bool, str)
+        Drawn, and the words of why not ("" where drawn or where the spread is 0).
+        The factor is drawn only under ``bulk_correction = "scale_wet"``, at a site
+        whose wet deposition has a bulk collector's part: the report named it under
+        ``"exclude_particles"`` (the demo's), where no factor exists.
+
+    >>> bulk_in_force(types.SimpleNamespace(bulk_factor_rel_sd=0.1), ("exclude_particles", False))
+    (False, 'not drawn: bulk_correction = "exclude_particles"')
+    """
+    if float(getattr(options, "bulk_factor_rel_sd", 0.0)) <= 0:
+        return False, ""
+    if bulk is None:
+        return True, ""
+    correction, drawn = bulk
+    if correction != "scale_wet":
+        return False, f'not drawn: bulk_correction = "{correction}"'
+    if not drawn:
+        return False, "not drawn: no site's wet deposition has a bulk collector's part"
+    return True, ""
+
+
+def draws_in_force(options, bulk=None) -> str:
     """One line naming how the systematic factors were drawn (the options a reader of a
     range must know: ``systematic_errors``, the laboratory biases, the land-use class
-    part of the Vd), as the report shows it; "" without options."""
+    part of the Vd), as the report shows it; "" without options.  `bulk`: as
+    :func:`bulk_in_force`; a bulk factor not drawn is said so beside its option."""
     if options is None:
         return ""
+    drawn, why = bulk_in_force(options, bulk)
+    bulk_words = (f"bulk_factor_rel_sd = {getattr(options, 'bulk_factor_rel_sd', 0.0):g}, "
+                  f"bulk_factor_ion_correlation = "
+                  f"{getattr(options, 'bulk_factor_ion_correlation', 1.0):g}"
+                  + (f" ({why})" if why else "") + ", ")
     return (f"Drawn with systematic_errors = \"{options.systematic_errors}\", "
             f"lab_bias_precip_rel_sd = {options.lab_bias_precip_rel_sd:g}, "
             f"lab_bias_air_rel_sd = {options.lab_bias_air_rel_sd:g}, "
             f"vd_class_fraction = {options.vd_class_fraction:g}, "
             f"vd_site_gsd = {getattr(options, 'vd_site_gsd', 1.0):g}, "
             f"lab_bias_filter_pack = {str(getattr(options, 'lab_bias_filter_pack', False)).lower()}, "
-            f"bulk_factor_rel_sd = {getattr(options, 'bulk_factor_rel_sd', 0.0):g}, "
-            f"bulk_factor_ion_correlation = "
-            f"{getattr(options, 'bulk_factor_ion_correlation', 1.0):g}, "
-            f"gauge_catch_rel_sd = {options.gauge_catch_rel_sd:g} per gauge period "
+            + bulk_words
+            + f"gauge_catch_rel_sd = {options.gauge_catch_rel_sd:g} per gauge period "
             f"({options.draws} draws, seed {options.seed}).")
 
 
-def report_section(table, to_html, options=None, text_options=None) -> list:
+def report_section(table, to_html, options=None, text_options=None, bulk=None) -> list:
     """HTML parts of the report: the 5-95 % range of every total (none without draws).
 
     Parameters
@@ -192,6 +232,8 @@ def report_section(table, to_html, options=None, text_options=None) -> list:
     text_options : UncertaintyOptions, optional
         The options the text of what a range holds is written for (:func:`report_text`;
         default `options`).
+    bulk : tuple, optional
+        ``(bulk_correction, drawn)`` of the run (:func:`bulk_in_force`).
     """
     import html
     if "flux_kg_ha_yr_p05" not in table:
@@ -205,11 +247,12 @@ def report_section(table, to_html, options=None, text_options=None) -> list:
                                       "range_note": "the range covers"})
     return ["<h2>Uncertainty: 5-95 % range of every total [kg/ha/yr of S or N]</h2>",
             "<p>" + html.escape(report_text(options if text_options is None
-                                            else text_options)) + "</p>",
-            "<p class='draws'>" + html.escape(draws_in_force(options)) + "</p>", to_html(frame)]
+                                            else text_options, bulk)) + "</p>",
+            "<p class='draws'>" + html.escape(draws_in_force(options, bulk)) + "</p>",
+            to_html(frame)]
 
 
-def report_text(options) -> str:
+def report_text(options, bulk=None) -> str:
     """What the ranges hold and leave out, as the report says it, for the options the
     draws were made with (docs/methods_uncertainty.md, "What a range covers").
 
@@ -226,11 +269,16 @@ def report_text(options) -> str:
     options : UncertaintyOptions
         The options of the draws (:func:`workbench.analysis.uncertainty.report_section`
         gives the defaults where a run has none).
+    bulk : tuple, optional
+        ``(bulk_correction, drawn)`` of the run (:func:`bulk_in_force`): the bulk
+        collector's factor is named only where it was drawn, and under
+        ``"exclude_particles"`` its assumption is named as not in the range.
     """
     shared = getattr(options, "systematic_errors", "shared") == "shared"
     site_vd = float(getattr(options, "vd_site_gsd", 1.0)) > 1.0
     pack = bool(getattr(options, "lab_bias_filter_pack", False))
-    bulk = float(getattr(options, "bulk_factor_rel_sd", 0.0)) > 0
+    bulk_drawn = bulk_in_force(options, bulk)[0]
+    excluded = bulk is not None and bulk[0] == "exclude_particles"
     when = ("the same at every site and in every year" if shared
             else "drawn anew for every site and calendar year")
     vd = (f"Vd model factors (log-normal, systematic: {when}, with a part of their own per "
@@ -251,7 +299,7 @@ def report_text(options) -> str:
             "between 0 and the limit about the substitute), the pNa analysis behind the "
             "non-sea-salt pSO4, gap-filled Vd (by the share of the deposition the filled "
             "hours carry) and PWMs filled from the climatology")
-    if bulk:
+    if bulk_drawn:
         rest += (", and under bulk_correction = \"scale_wet\" a bulk collector's "
                  "wet-only / bulk factor (one per site and ion, correlated among the ions "
                  "by bulk_factor_ion_correlation)")
@@ -264,6 +312,10 @@ def report_text(options) -> str:
     left = ("a calibration bias shared by laboratories the site catalogue does not name "
             "as one" + ("" if pack else ", or by the gas and particle filters of a pack "
                         "(lab_bias_filter_pack = false)"))
+    if excluded:
+        left += ("; the assumption of bulk_correction = \"exclude_particles\" that a bulk "
+                 "collector's samples hold the particle dry deposition of the hours it ran "
+                 "(none is added there, and no factor is drawn for it)")
     return (f"Quantiles of a Monte Carlo of the budget: {vd}, {gauge}, {lab}, {rest} "
             "(docs/methods_uncertainty.md). They bound the errors named there only. "
             + span + "Not in the range: errors of the method itself (omitted species and "

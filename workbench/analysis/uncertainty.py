@@ -470,6 +470,10 @@ class BudgetQuantiles:
     options: UncertaintyOptions
     #: The draws themselves of the annual S and N totals, see :func:`annual_total_draws`.
     total_draws: xr.Dataset | None = None
+    #: Whether a bulk collector's factor was drawn at any site (``bulk_correction =
+    #: "scale_wet"``, a site with a bulk part and ``bulk_factor_rel_sd`` > 0): the
+    #: report names the factor only then.
+    bulk_drawn: bool = False
 
 
 def _span_draws(ds, comp, tot):
@@ -550,6 +554,7 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
     q = np.asarray(QUANTILES)
     out = {}
     span_c, span_t, kept = [], [], []
+    bulk_drawn = False
     for which, lay in sorted(layers.items(), key=lambda kv: kv[0] != "years"):
         if which == "budget" and lay is layers.get("years"):
             out[which] = out["years"]                # a yearly run: the same draws
@@ -563,6 +568,7 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
             noise = site_noise(lay.sites[k], options, options.draws, n_years, n_p,
                                (options.seed, str(ds["site"].values[k])), year0,
                                (ds["period_start"].values, ds["period_end"].values))
+            bulk_drawn |= noise.bulk is not None
             comp = component_draws(lay, k, noise, year0)
             tot = totals_of(comp)
             comp_q[:, k] = np.quantile(comp, q, axis=0)
@@ -599,7 +605,7 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
                                {"units": "eq ha-1 yr-1"}) for i, e in enumerate("sn")},
         coords={"draw": np.arange(options.draws), "site": yds["site"].values,
                 "receptor": yds["receptor"].values, "period": per})
-    return BudgetQuantiles(out.get("budget"), out["years"], span, options, draws)
+    return BudgetQuantiles(out.get("budget"), out["years"], span, options, draws, bulk_drawn)
 
 
 def _annual_draws(tot, span_t, annual_factor):
@@ -708,11 +714,24 @@ def with_uncertainty(result, study, scenario):
     return new
 
 
-def report_section(table, to_html, options=None) -> list:
+def bulk_state(result) -> tuple:
+    """``(bulk_correction, drawn)`` of a run: its ``[budget] bulk_correction`` and whether
+    its Monte Carlo drew a bulk collector's factor at any site (False without draws)."""
+    q = result.options.get("uncertainty")
+    return (getattr(result.options.get("budget"), "bulk_correction", None),
+            bool(getattr(q, "bulk_drawn", False)))
+
+
+def report_section(table, to_html, options=None, bulk=None) -> list:
     """HTML parts of the report: the 5-95 % range of every total (none without draws),
     :func:`workbench.analysis.quantile_tables.report_section` with the text of what a
     range holds written for `options`, or for the default :class:`UncertaintyOptions`
-    where a run has none (quantile_tables does not import this module: no cycle)."""
+    where a run has none (quantile_tables does not import this module: no cycle).
+
+    `bulk`: ``(bulk_correction, drawn)``, the run's ``[budget] bulk_correction`` and
+    whether a bulk collector's factor was drawn (:attr:`BudgetQuantiles.bulk_drawn`), so
+    that the text names the factor only where it was in force; None: not known (the
+    factor is named as drawn wherever ``bulk_factor_rel_sd`` > 0)."""
     return _quantile_tables.report_section(
         table, to_html, options,
-        text_options=UncertaintyOptions() if options is None else options)
+        text_options=UncertaintyOptions() if options is None else options, bulk=bulk)

@@ -189,6 +189,35 @@ def _tracer_gaps(screened, table, weight, used, flat, shape, precip, ion, tracer
     return np.where(silent, "", out).astype(object)
 
 
+def _seasalt_floor_notes(screened, table, weight, used, flat, shape, tracer, treatment):
+    """Words naming the samples of each (site, period) whose SO4 below detection took its
+    sea-salt sulfate as a floor (``SO4_seasalt_floor`` of the screening); "" elsewhere.
+
+    The sentence follows the air's (:func:`workbench.drycomponents.censored_nss_notes`).
+    """
+    out = np.full(shape, "", dtype=object)
+    if "SO4_seasalt_floor" not in screened.variables:
+        return out
+    i = table["interval"].values
+    hit = used & np.asarray(screened.variables["SO4_seasalt_floor"].values, bool)[i] & (weight > 0)
+    if not hit.any():
+        return out
+    start = pd.DatetimeIndex(screened.variables["start"].values[i[hit]]).strftime("%Y-%m-%d")
+    line = (screened.variables["line"].values[i[hit]] if "line" in screened.variables
+            else np.full(int(hit.sum()), -1))
+    name = [f"{d} line {int(n)}" if n >= 0 else d for d, n in zip(start, line)]
+    agg = pd.DataFrame({"flat": flat[hit], "name": name}).groupby("flat")["name"].agg(list)
+    sub = {"half": "half", "limit": "all", "zero": "none"}.get(treatment, treatment)
+    s_, p_ = np.unravel_index(agg.index.to_numpy(), shape)
+    out[s_, p_] = [
+        f"SO4 below detection beside {tracer} in {len(v)} sample{'s' if len(v) > 1 else ''} "
+        f"(from {', '.join(v)}): their SO4 taken as the sea-salt sulfate of their {tracer} "
+        f"plus {sub} of (limit - sea salt), so their non-sea-salt SO4 is {sub} of (limit - "
+        "sea salt), 0 where the sea salt reaches the limit (as the air's pSO4)"
+        for v in agg.to_numpy()]
+    return out
+
+
 def sample_weights(screened: xr.Dataset, ptable: pd.DataFrame, options: WetOptions,
                    met: xr.Dataset | None = None):
     """The (sample, period) pieces of the screened samples and their precipitation weights.
@@ -486,6 +515,11 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         label = "free acidity H+" if sp == "H" else sp
         var(f"pwm_{sp}", pwm[sp], "mol m-3", f"precipitation-weighted mean of {label}")
     var("pH_pwm", pH_from_hydrogen(pwm["H"]), "1", "pH of the precipitation-weighted mean H+")
+    if "SO4" in species:
+        var("SO4_seasalt_floor", _seasalt_floor_notes(
+            screened, table, weight, used, flat, shape, tracer, opt.detection_limit), "",
+            f"samples of the period with SO4 below detection beside {tracer}: their "
+            "sea-salt sulfate taken as the floor of their SO4 (docs/methods_wet.md 3.1)")
     for name, (values, ion) in nss.items():
         var(f"pwm_{name}", values, "mol m-3",
             f"precipitation-weighted mean of non-sea-salt {ion} (tracer {tracer})",

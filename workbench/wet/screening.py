@@ -150,6 +150,40 @@ def ion_balance_test(cations, anions, tiers):
     return idiff, limit, evaluated, evaluated & qa.exceeds(np.abs(idiff), limit)
 
 
+def _censored_so4_beside_tracer(ds, added, ions, opt) -> None:
+    """A SO4 below detection beside a value of the sea-salt tracer: its substitute.
+
+    The sea-salt correction (section 8) takes the tracer T as sea salt, so such a
+    sample's total SO4 lies between its sea-salt sulfate S = r T (r the seawater
+    ratio, :func:`workbench.wet.seasalt.seawater_ratio`) and the limit L, and its
+    non-sea-salt part between 0 and max(0, L - S).  The total becomes S plus the
+    ``detection_limit`` substitute of max(0, L - S) (half of it by default), so that
+    its non-sea-salt part is that substitute: the rule of the air's pSO4 beside a
+    pNa (:func:`workbench.drycomponents._nss_particles`).  Before, it took the
+    substitute of L itself (L / 2), and its non-sea-salt part L / 2 - S went below 0
+    wherever S > L / 2, pulling down the nss PWM of the period's measured samples
+    (docs/methods_wet.md section 3.1).  A tracer below detection counts with its own
+    substitute, as for the air.  Marks the samples in ``SO4_seasalt_floor`` (bool);
+    `added` is changed in place.  [mol m-3]
+    """
+    from .seasalt import seawater_ratio
+    tracer = getattr(opt, "seasalt_tracer", "Na")
+    if "SO4" not in ions or tracer not in ions or tracer == "SO4":
+        return
+    cens = _values(ds, "SO4_censored", False, bool)
+    lim = added["SO4_limit_used"][1]
+    sea = seawater_ratio("SO4", tracer) * added[tracer][1]
+    hit = cens & np.isfinite(lim) & np.isfinite(sea)
+    nss = qa.censored_value(np.full(len(hit), np.nan), hit, np.maximum(lim - sea, 0.0),
+                            opt.detection_limit)
+    name, values, attrs = "SO4", added["SO4"][1], added["SO4"][2]
+    added[name] = ("sample", np.where(hit, sea + nss, values), attrs)
+    added["SO4_seasalt_floor"] = ("sample", hit, {
+        "long_name": f"SO4 below detection beside {tracer}: its sea-salt sulfate plus the "
+                     f"{opt.detection_limit} substitute of the limit less it",
+        "seasalt_tracer": tracer})
+
+
 def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Dataset | None = None,
            blanks: xr.Dataset | None = None, flag_table=None) -> xr.Dataset:
     """Screen precipitation samples and decide, per sample, what is used.
@@ -244,6 +278,7 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
         censored_counts[ion] = int(cens.sum())
         no_limit_counts[ion] = int((cens & ~np.isfinite(treated)).sum())
         has_chem |= np.isfinite(rep) | cens
+    _censored_so4_beside_tracer(ds, added, ions, opt)
     pH = _values(ds, "pH")
     has_chem |= np.isfinite(pH)
     conc = {ion: added[ion][1] for ion in ions}
