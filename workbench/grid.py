@@ -95,12 +95,36 @@ def output_names(species) -> list:
     return names + ["met_flagged_hours", "met_missing_hours"]
 
 
+def record_span(grid: Grid) -> tuple:
+    """(start, end) of the grid's record: the first start and the last end of the
+    concentrations' sampling intervals (UTC, end exclusive), as
+    :meth:`Study.record_span <workbench.pipeline.Study.record_span>` takes the sites'."""
+    return grid.air_start.min(), grid.air_end.max()
+
+
 def make_periods(grid: Grid, resolution="month", start=None, end=None) -> pd.DataFrame:
-    """Reporting periods over the concentrations' span, as :meth:`Study.periods
-    <workbench.pipeline.Study.periods>` makes them for the sites."""
-    t0 = np.datetime64(start) if start else grid.air_start.min()
-    t1 = np.datetime64(end) if end else grid.air_end.max()
+    """Reporting periods over the default span of the concentrations' record, as
+    :meth:`Study.periods <workbench.pipeline.Study.periods>` makes them for the sites:
+    without ``[period] start`` or ``end``, the calendar years of the record without a
+    first or last year it reaches into by :data:`workbench.periods.EDGE_YEAR_DAYS` days
+    or less (:func:`workbench.periods.default_span`; :func:`span_notes` says the days
+    left out).  Before, the grid took the whole span of the air: a last weekly interval
+    ending a few days into a new year made that year a period (map) of its own."""
+    s0, e0 = _periods.default_span(*record_span(grid))
+    t0 = np.datetime64(start) if start else s0
+    t1 = np.datetime64(end) if end else e0
     return _periods.make_periods(t0, t1, resolution)
+
+
+def span_notes(grid: Grid, start=None, end=None) -> list:
+    """The run notes of the days of the grid's record that the default span leaves out
+    (where `start` or `end`, ``[period]`` start and end, is None), in the words of the
+    site run (:func:`workbench.periods.excluded_record_notes`); ``[]`` when the periods
+    hold the whole record."""
+    if start is not None and end is not None:
+        return []
+    return _periods.excluded_record_notes(*record_span(grid), use_start=start is None,
+                                          use_end=end is None)
 
 
 def dry_for_sites(met, air, catalogue: SiteCatalogue, dry_options, budget_options,
