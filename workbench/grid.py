@@ -38,6 +38,7 @@ from .budget import COMPONENTS, BudgetOptions
 from .drycomponents import dry_components, dry_rows, prepare_velocities
 from .errors import WorkbenchError
 from .grid_io import Grid, block_catalogue, cell_ids, cut, read_block
+from .grid_cluster import completed, result, watch
 from .grid_scratch import block_major
 from .io.common import release_free_memory
 from .io.sites import SiteCatalogue
@@ -445,6 +446,21 @@ def compute_grid(grid: Grid, dry_options, budget_options, periods, fixed_velocit
 BLOCKS_IN_FLIGHT_PER_WORKER = 2
 
 
+def _describe_block(block, n_hours, layout):
+    """The words of :func:`workbench.grid_cluster.memory_error` for a block task."""
+    ys, xs = layout[0][0]
+    by, bx = ys.stop - ys.start, xs.stop - xs.start
+
+    def describe():
+        return (f"a block of {by} x {bx} cells",
+                f"a block of {by * bx * n_hours:,} cell-hours ({by} x {bx} cells x "
+                f"{n_hours} hours) holds its hourly inputs and the engine's work on them "
+                "(measured: a worker about 300 MB at 16 x 16 cells x 744 hours, "
+                "docs/performance.md)",
+                f"a smaller --block (now {block}; the memory follows the cells of a block)")
+    return describe
+
+
 def store_grid(grid: Grid, target, dry_options, budget_options, periods, fixed_velocity=None,
                block=None, use_dask=False, client=None, progress=None) -> list:
     """Every output of every cell, each block written into `target` as it ends and let go.
@@ -502,9 +518,13 @@ def store_grid(grid: Grid, target, dry_options, budget_options, periods, fixed_v
         first = [f for f in (submit() for _ in range(BLOCKS_IN_FLIGHT_PER_WORKER * n_workers))
                  if f is not None]
         queue = distributed.as_completed(first)
-        for n, fut in enumerate(queue, 1):
+        # as they end; workers with too little memory for a block: one message, no hang
+        # (workbench.grid_cluster)
+        watcher = watch(client, _describe_block(block, len(grid.times), layout))
+        for n, fut in enumerate(completed(queue, watcher), 1):
             ys, xs = futures.pop(fut)
-            target[:, :, ys, xs] = fut.result()     # a failed block raises its error here
+            # a failed block raises its error here
+            target[:, :, ys, xs] = result(fut, watcher)
             fut.release()                          # its result leaves the worker
             del fut
             say(f"block {n}/{len(flat)}")
