@@ -146,7 +146,8 @@ def completed(queue, watcher: _PauseWatch):
     while not queue.is_empty():
         if not queue.has_ready():
             watcher.check()
-            pending = [f for f in queue.futures if not f.done()]
+            with queue.lock:                 # its own thread adds and drops futures
+                pending = [f for f in queue.futures if not f.done()]
             if pending:
                 try:
                     wait(pending, timeout=POLL_S, return_when="FIRST_COMPLETED")
