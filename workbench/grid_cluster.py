@@ -128,21 +128,25 @@ def result(fut, watcher: _PauseWatch):
     """``fut.result()`` of a task, or the :class:`WorkerMemoryError` of
     :func:`memory_error` when its workers died (``KilledWorker``) or every worker stayed
     paused (`watcher`, :func:`watch`); other errors of the task are raised as they are."""
-    from distributed import KilledWorker
-    while True:
+    # distributed's TimeoutError: asyncio's on Python 3.10; waited for apart from the
+    # result, so that a task's own TimeoutError is raised as its error
+    from distributed import KilledWorker, TimeoutError as WaitedOut, wait
+    while not fut.done():
         try:
-            return fut.result(timeout=POLL_S)
-        except TimeoutError:
+            wait([fut], timeout=POLL_S)
+        except WaitedOut:
             watcher.check()
-        except KilledWorker:
-            raise watcher.error("the workers that ran {what} died (a worker's nanny "
-                                "restarts it above 95 % of its memory limit)") from None
+    try:
+        return fut.result()
+    except KilledWorker:
+        raise watcher.error("the workers that ran {what} died (a worker's nanny "
+                            "restarts it above 95 % of its memory limit)") from None
 
 
 def completed(queue, watcher: _PauseWatch):
     """The futures of `queue` (``distributed.as_completed``) as they finish, with the
     check of `watcher` while none is ready; take each with :func:`result`."""
-    from distributed import wait
+    from distributed import TimeoutError as WaitedOut, wait
     while not queue.is_empty():
         if not queue.has_ready():
             watcher.check()
@@ -151,7 +155,7 @@ def completed(queue, watcher: _PauseWatch):
             if pending:
                 try:
                     wait(pending, timeout=POLL_S, return_when="FIRST_COMPLETED")
-                except TimeoutError:
+                except WaitedOut:
                     pass
             continue
         yield next(queue)
