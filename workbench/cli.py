@@ -116,7 +116,7 @@ def _check_grid_only(path) -> bool:
     if "sites" in sc.input_paths() or not sc.data.get("grid"):
         return False
     from .errors import ScenarioError
-    from .grid import make_periods
+    from .grid import make_periods, span_notes
     from .grid_io import describe, open_grid
     from .grid_output import grid_paths
     paths = grid_paths(sc)
@@ -131,6 +131,8 @@ def _check_grid_only(path) -> bool:
     for note in grid.notes:
         print(f"note: {note}")
     print(f"periods: {len(periods)} {p['resolution']} period{'s' if len(periods) != 1 else ''}")
+    for note in span_notes(grid, p["start"], p["end"]):     # as `workbench check` of sites
+        print("note: " + note.removeprefix("period: "))
     print("the grid files were read and checked (metadata, coordinates, times, land-use "
           "classes; the hourly values are checked block by block as the run reads them): "
           "run it with `workbench grid SCENARIO --out DIR`")

@@ -38,6 +38,7 @@ from .budget import COMPONENTS, BudgetOptions
 from .drycomponents import dry_components, dry_rows, prepare_velocities
 from .errors import WorkbenchError
 from .grid_io import Grid, block_catalogue, cell_ids, cut, read_block
+from .grid_cluster import completed, result, watch
 from .grid_scratch import block_major
 from .io.common import release_free_memory
 from .io.sites import SiteCatalogue
@@ -95,12 +96,36 @@ def output_names(species) -> list:
     return names + ["met_flagged_hours", "met_missing_hours"]
 
 
+def record_span(grid: Grid) -> tuple:
+    """(start, end) of the grid's record: the first start and the last end of the
+    concentrations' sampling intervals (UTC, end exclusive), as
+    :meth:`Study.record_span <workbench.pipeline.Study.record_span>` takes the sites'."""
+    return grid.air_start.min(), grid.air_end.max()
+
+
 def make_periods(grid: Grid, resolution="month", start=None, end=None) -> pd.DataFrame:
-    """Reporting periods over the concentrations' span, as :meth:`Study.periods
-    <workbench.pipeline.Study.periods>` makes them for the sites."""
-    t0 = np.datetime64(start) if start else grid.air_start.min()
-    t1 = np.datetime64(end) if end else grid.air_end.max()
+    """Reporting periods over the default span of the concentrations' record, as
+    :meth:`Study.periods <workbench.pipeline.Study.periods>` makes them for the sites:
+    without ``[period] start`` or ``end``, the calendar years of the record without a
+    first or last year it reaches into by :data:`workbench.periods.EDGE_YEAR_DAYS` days
+    or less (:func:`workbench.periods.default_span`; :func:`span_notes` says the days
+    left out).  Before, the grid took the whole span of the air: a last weekly interval
+    ending a few days into a new year made that year a period (map) of its own."""
+    s0, e0 = _periods.default_span(*record_span(grid))
+    t0 = np.datetime64(start) if start else s0
+    t1 = np.datetime64(end) if end else e0
     return _periods.make_periods(t0, t1, resolution)
+
+
+def span_notes(grid: Grid, start=None, end=None) -> list:
+    """The run notes of the days of the grid's record that the default span leaves out
+    (where `start` or `end`, ``[period]`` start and end, is None), in the words of the
+    site run (:func:`workbench.periods.excluded_record_notes`); ``[]`` when the periods
+    hold the whole record."""
+    if start is not None and end is not None:
+        return []
+    return _periods.excluded_record_notes(*record_span(grid), use_start=start is None,
+                                          use_end=end is None)
 
 
 def dry_for_sites(met, air, catalogue: SiteCatalogue, dry_options, budget_options,
@@ -421,6 +446,21 @@ def compute_grid(grid: Grid, dry_options, budget_options, periods, fixed_velocit
 BLOCKS_IN_FLIGHT_PER_WORKER = 2
 
 
+def _describe_block(block, n_hours, layout):
+    """The words of :func:`workbench.grid_cluster.memory_error` for a block task."""
+    ys, xs = layout[0][0]
+    by, bx = ys.stop - ys.start, xs.stop - xs.start
+
+    def describe():
+        return (f"a block of {by} x {bx} cells",
+                f"a block of {by * bx * n_hours:,} cell-hours ({by} x {bx} cells x "
+                f"{n_hours} hours) holds its hourly inputs and the engine's work on them "
+                "(measured: a worker about 300 MB at 16 x 16 cells x 744 hours, "
+                "docs/performance.md)",
+                f"a smaller --block (now {block}; the memory follows the cells of a block)")
+    return describe
+
+
 def store_grid(grid: Grid, target, dry_options, budget_options, periods, fixed_velocity=None,
                block=None, use_dask=False, client=None, progress=None) -> list:
     """Every output of every cell, each block written into `target` as it ends and let go.
@@ -478,9 +518,13 @@ def store_grid(grid: Grid, target, dry_options, budget_options, periods, fixed_v
         first = [f for f in (submit() for _ in range(BLOCKS_IN_FLIGHT_PER_WORKER * n_workers))
                  if f is not None]
         queue = distributed.as_completed(first)
-        for n, fut in enumerate(queue, 1):
+        # as they end; workers with too little memory for a block: one message, no hang
+        # (workbench.grid_cluster)
+        watcher = watch(client, _describe_block(block, len(grid.times), layout))
+        for n, fut in enumerate(completed(queue, watcher), 1):
             ys, xs = futures.pop(fut)
-            target[:, :, ys, xs] = fut.result()     # a failed block raises its error here
+            # a failed block raises its error here
+            target[:, :, ys, xs] = result(fut, watcher)
             fut.release()                          # its result leaves the worker
             del fut
             say(f"block {n}/{len(flat)}")

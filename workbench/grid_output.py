@@ -22,8 +22,8 @@ import numpy as np
 import xarray as xr
 
 from . import __version__
-from .grid import (DRY_SPECIES, default_block, make_periods, output_names, staged,
-                   store_grid)
+from .grid import (DRY_SPECIES, default_block, make_periods, output_names, span_notes,
+                   staged, store_grid)
 from .grid_io import GridError, block_catalogue, describe, open_grid, read_block
 from .landuse import LAND_USE
 from .runfolder import OutputError, RunFolder, os_error_message
@@ -464,6 +464,12 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
             say(f"note: {note}")
         p = sc.data["period"]
         periods = make_periods(grid, p["resolution"], p["start"], p["end"])
+        # the days of the record a default start or end leaves out, in the site run's
+        # words (workbench.periods.excluded_record_notes): console, provenance, grid.nc
+        left = span_notes(grid, p["start"], p["end"])
+        for note in left:
+            say("note: " + note.removeprefix("period: "))
+        grid.notes.extend(left)
         o = sc.options
         # inputs chunked across the blocks: a block-major scratch copy inside the
         # (incomplete) run folder, removed before the folder is committed; with a
@@ -491,6 +497,8 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
             ds.attrs["workbench_options"] = json.dumps(
                 {k: sc.resolved().get(k) for k in ("dry", "budget", "period", "grid")},
                 default=str)
+            if left:
+                ds.attrs["workbench_period_notes"] = "; ".join(left)
             target = folder.path / GRID_FILE
             try:
                 maps = create_grid_netcdf(ds, target, names)

@@ -40,6 +40,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .grid_cluster import result, watch
 from .grid_io import GridError, _open, read_values
 from .io.zarrstore import LARGE_CHUNK_BYTES, chunk_sizes
 from .runfolder import OutputError, os_error_message
@@ -244,6 +245,21 @@ def _no_chunk_cache(path):
         netCDF4.set_chunk_cache(*before)
 
 
+def _describe_copy(path, name, chunk, itemsize, shape):
+    """The words of :func:`workbench.grid_cluster.memory_error` for the copy of one
+    variable: its chunk of the whole plane, decompressed whole."""
+    nbytes = int(np.prod((chunk[0],) + tuple(shape))) * itemsize
+
+    def describe():
+        return (f"the block-major scratch copy of {name} of {Path(path).name}",
+                f"a time chunk of it, {chunk[0]} time steps x {shape[0]} x {shape[1]} cells, "
+                f"is {nbytes / 2**20:,.0f} MiB decompressed, and it is decompressed whole: "
+                "the copy holds about three such chunks at once",
+                f"write {Path(path).name} with fewer time steps a chunk (the memory follows "
+                "the chunk: half the time steps, half the memory)")
+    return describe
+
+
 def _disk_error(exc, file, nbytes) -> OutputError:
     return OutputError(os_error_message(exc, file, "write the scratch copy")
                        + f" (the block-major copy of a time-chunked input, "
@@ -299,6 +315,8 @@ def block_major(grid, layout, folder=None, say=None, client=None):
                 if made is None:
                     made = Path(tempfile.mkdtemp(prefix="workbench-gridcopy-", dir=folder))
                 n_t = raw.sizes["time"]
+                chunks = {name: (chunk_shape(raw[name], grid.dims), raw[name].dtype.itemsize)
+                          for name in copy}
             files = {}
             jobs = [(name, made / f"{role}.{name}.bin") for name in copy]
             if client is None:
@@ -314,7 +332,10 @@ def block_major(grid, layout, folder=None, say=None, client=None):
                     fut = client.submit(_copy_one, path, role, name, grid.dims, flat, n_t,
                                         file, pure=False)
                     try:
-                        files[name] = fut.result()   # a failed copy raises its error here
+                        # a failed copy raises its error here; workers with too little
+                        # memory for a chunk, one message (workbench.grid_cluster)
+                        files[name] = result(fut, watch(client, _describe_copy(
+                            path, name, *chunks[name], grid.shape)))
                     finally:
                         fut.release()
                         del fut
