@@ -73,6 +73,22 @@ def test_a_zero_on_a_partial_deposition_is_not_determined():
         assert p["ex_nutrient_n_eq_ha_yr" + suffix].iloc[1] == 0.0
 
 
+def test_a_partial_s_total_leaves_the_nutrient_quantiles_determined():
+    """ExnutN rests on the N total alone (ICP Modelling and Mapping Manual): where only
+    the S total is partial (`lower_bound` True, `lower_bound_n` False) a 0 of the
+    nutrient-N quantiles is a determined 0, as its probability and point value; the
+    acidity exceedance, resting on both, stays undetermined at 0."""
+    d = _draws(201)
+    t = _table(5000.0)
+    t["cl_max_s_eq_ha_yr"] = 1.0e6                                 # no acidity exceedance
+    t["cl_max_n_eq_ha_yr"] = 1.0e6
+    p = exceedance_probability(t, d, lower_bound=[True, True], lower_bound_n=[False, False])
+    for suffix in ("_p05", "_p50", "_p95"):
+        assert (p["ex_nutrient_n_eq_ha_yr" + suffix] == 0.0).all()
+        assert p["ex_acidity_eq_ha_yr" + suffix].isna().all()
+    assert (p["p_exceed_nutrient_n"] == 0.0).all()
+
+
 def test_a_run_with_draws_writes_them(tmp_path):
     """exceedance_table of the tiny invented site with draws: the nutrient-N quantiles
     equal those of its own annual N draws less CLnutN (by hand)."""
