@@ -158,6 +158,15 @@ def _leave_out(clim, table, site_idx, cat, has_season, n_site, n_per, species):
     return out
 
 
+def _sample_names(screened, rows):
+    """"YYYY-MM-DD line N" of each sample `rows` (indices of the screened intervals),
+    the date of its start and its line in the file ("YYYY-MM-DD" where no line)."""
+    start = pd.DatetimeIndex(screened.variables["start"].values[rows]).strftime("%Y-%m-%d")
+    line = (screened.variables["line"].values[rows] if "line" in screened.variables
+            else np.full(len(rows), -1))
+    return [f"{d} line {int(n)}" if n >= 0 else d for d, n in zip(start, line)]
+
+
 def _tracer_gaps(screened, table, weight, used, flat, shape, precip, ion, tracer, silent):
     """Words naming the samples of each (site, period) whose `ion` is used without a value
     of the sea-salt `tracer` ("" where none, or where `silent`).
@@ -173,10 +182,7 @@ def _tracer_gaps(screened, table, weight, used, flat, shape, precip, ion, tracer
     out = np.full(shape, "", dtype=object)
     if not hit.any():
         return out
-    start = pd.DatetimeIndex(screened.variables["start"].values[i[hit]]).strftime("%Y-%m-%d")
-    line = (screened.variables["line"].values[i[hit]] if "line" in screened.variables
-            else np.full(int(hit.sum()), -1))
-    name = [f"{d} line {int(n)}" if n >= 0 else d for d, n in zip(start, line)]
+    name = _sample_names(screened, i[hit])
     g = pd.DataFrame({"flat": flat[hit], "name": name, "w": weight[hit]})
     agg = g.groupby("flat").agg(names=("name", ", ".join), n=("name", "size"), w=("w", "sum"))
     cells = agg.index.to_numpy()
@@ -202,10 +208,7 @@ def _seasalt_floor_notes(screened, table, weight, used, flat, shape, tracer, tre
     hit = used & np.asarray(screened.variables["SO4_seasalt_floor"].values, bool)[i] & (weight > 0)
     if not hit.any():
         return out
-    start = pd.DatetimeIndex(screened.variables["start"].values[i[hit]]).strftime("%Y-%m-%d")
-    line = (screened.variables["line"].values[i[hit]] if "line" in screened.variables
-            else np.full(int(hit.sum()), -1))
-    name = [f"{d} line {int(n)}" if n >= 0 else d for d, n in zip(start, line)]
+    name = _sample_names(screened, i[hit])
     agg = pd.DataFrame({"flat": flat[hit], "name": name}).groupby("flat")["name"].agg(list)
     sub = {"half": "half", "limit": "all", "zero": "none"}.get(treatment, treatment)
     s_, p_ = np.unravel_index(agg.index.to_numpy(), shape)
