@@ -67,6 +67,14 @@ class DryPieces:
     #: sea-salt sulfate from the substitute of ``[budget] air_censored`` (drawn with
     #: ``censored_rel_sd``, :func:`workbench.analysis.noise.site_noise`). None: none.
     seasalt_censored: np.ndarray | None = None
+    #: (n, P, R) [mol m-2] of NH3 under ``nh3_treatment = "bidirectional"`` only: each
+    #: row's deposition part C vd_NH3_bidirectional and its emission part of the net
+    #: exchange (``rows["nh3_exchange"]``), so that ``(exchange - emission).sum(0)`` is
+    #: the budget's net NH3; the Monte Carlo draws the concentration errors on the
+    #: deposition part alone (:func:`workbench.analysis.uncertainty.nh3_net_draws`).
+    #: None: deposition only (or an exchange the rows cannot be matched to).
+    exchange: np.ndarray | None = None
+    emission: np.ndarray | None = None
 
 
 @dataclass
@@ -224,6 +232,32 @@ def _seasalt_rows(pr, r, air, censored="half"):
     return pr * per_c[:, None, None], cens & ok
 
 
+def _exchange_rows(rows, parts, axes, times, n_sites):
+    """Each NH3 row's deposition and emission parts of the bidirectional exchange, or None.
+
+    Returns ``(deposition, emission)``, each (n, P, R) [mol m-2] in the order of the
+    NH3 component's rows, where the exchange's rows are those rows (the NH3 component
+    from its own samples alone, none moved in or out by ``pair_split``); None otherwise
+    (the draws then scale the net as a whole, as before).
+    """
+    from ..dryflux import share_to_periods
+    ex = rows.get("nh3_exchange")
+    if ex is None or "moved" in ex or len(parts) != 1 or parts[0][0] != "NH3" or parts[0][2] != 1:
+        return None
+    r, d, e = parts[0][1], ex["deposition"], ex["emission"]
+    if not all(len(x["a"]) == len(r["a"]) and np.array_equal(x["site_index"], r["site_index"])
+               and np.array_equal(x["a"], r["a"]) and np.array_equal(x["b"], r["b"])
+               for x in (d, e)):
+        return None
+    out = []
+    for x in (d, e):
+        *_, pr = share_to_periods(x["site_index"], x["a"], x["b"], x["deposition"], x["cs"],
+                                  n_sites, axes, times, x["start"], x["end"], per_row=True,
+                                  cn=x.get("cn"))
+        out.append(np.where(np.isfinite(pr), pr, 0.0))
+    return tuple(out)
+
+
 def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False, censored="half"):
     from ..drycomponents import row_filled_deposition_share
     from ..drypairs import component_rows
@@ -270,6 +304,8 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False, censo
             sampler.append(samplers[r["air_row"]])
             start.append(np.asarray(r["start"]))
             end.append(np.asarray(r["end"]))
+        exch = (_exchange_rows(rows, parts, axes, times, len(row_sites))
+                if sp == "NH3" else None)
         per_row, si = np.concatenate(per_row), np.concatenate(si)
         ss = None if ss is None else np.concatenate(ss)
         ss_cens = np.concatenate(ss_cens) if ss is not None else None
@@ -293,7 +329,9 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False, censo
                                                 (histories or {}).get(s)),
                                    None if ss is None else ss[sel][:, :, :n_r],
                                    None if ss is None or not ss_cens[sel].any()
-                                   else ss_cens[sel])
+                                   else ss_cens[sel],
+                                   None if exch is None else exch[0][sel][:, :, :n_r],
+                                   None if exch is None else exch[1][sel][:, :, :n_r])
     return out
 
 

@@ -348,6 +348,44 @@ def nss_dry_draws(pieces, vd_factor, air, air_seasalt, vd_fill, class_factor=Non
     return np.maximum(acc, 0.0).transpose(0, 2, 1)
 
 
+def nh3_net_draws(pieces, vd_factor, air, vd_fill, class_factor=None):
+    """Draws of the net NH3 exchange (bidirectional): (D, R, P) [mol m-2], not ratios.
+
+    The net of a period is :math:`\\sum_n (B_n - E_n)`, with :math:`B_n` row *n*'s
+    deposition part :math:`C_n\\, v_{d,bd}` and :math:`E_n` its emission part (from
+    the compensation point, no concentration in it).  A draw is
+
+    .. math:: D = F \\Big(\\sum_n B_n \\delta_n (1 + \\phi_n \\eta_n) - \\sum_n E_n\\Big)
+
+    the Vd factor :math:`F` on both parts (a bias of the exchange's resistances scales
+    the deposition and the emission alike), the concentration errors :math:`\\delta`
+    and the fill error on the deposition part only.  The draws used to scale the net by
+    the deposition-only rows' relative error, so a concentration error moved the net by
+    its share of the net rather than of the deposition part (too little where emission
+    and deposition nearly cancel), and turned a higher concentration into a larger net
+    emission where the net was one.  Not clipped: a net emission stays negative.
+
+    Parameters
+    ----------
+    pieces : DryPieces
+        With ``exchange`` and ``emission`` (n, P, R) [mol m-2].
+    vd_factor : ndarray (D, P)
+    air, vd_fill : ndarray (D, n)
+    class_factor : dict, optional
+        Land-use class -> (D, P) Vd factor.
+    """
+    import dataclasses
+    dep = dataclasses.replace(pieces, contrib=pieces.exchange)
+    n_d = air.shape[0]
+    f_dep = dry_ratio(dep, vd_factor, air, vd_fill, class_factor)              # (D, R, P)
+    f_only = dry_ratio(dep, vd_factor, np.ones_like(air), np.zeros_like(vd_fill),
+                       class_factor)                                          # F per receptor
+    b = pieces.exchange.sum(0).T[None]                                        # (1, R, P)
+    e = pieces.emission.sum(0).T[None]
+    # dry_ratio gives F (1 + ...) relative to B; where B is 0 it is F alone
+    return np.broadcast_to(f_dep * b - f_only * e, (n_d,) + b.shape[1:])
+
+
 def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int) -> np.ndarray:
     """Draws of every component at one site: (D, R, P, C) [mol m-2].
 
@@ -376,6 +414,16 @@ def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int)
             ratio[..., j] = dry_ratio(ls.dry[sp], noise.vd[:, yi, k], noise.air[sp],
                                       noise.vd_fill[sp], cf)
             pc = ls.dry[sp]
+            if (sp == "NH3" and getattr(pc, "exchange", None) is not None
+                    and ds.attrs.get("nh3_figure") == "net"):
+                # the net exchange: the concentration errors on its deposition part only,
+                # where the point is that net (not where the budget set it otherwise)
+                lin = (pc.exchange.sum(0) - pc.emission.sum(0)).T                 # (R, P)
+                pt = point[..., j]
+                same = np.isfinite(pt) & np.isclose(pt, lin, rtol=1e-9, atol=1e-300)
+                if same.any():
+                    direct[j] = (nh3_net_draws(pc, noise.vd[:, yi, k], noise.air[sp],
+                                               noise.vd_fill[sp], cf), same)
             if pc.seasalt is not None and sp in noise.air_seasalt:
                 # non-sea-salt pSO4: drawn as the difference of its two analyses and
                 # clipped at 0 as the budget's sum, where the point is that clipped sum
