@@ -19,6 +19,8 @@ import numpy as np
 
 from .trend_changes import CHANGE_NOTE, _change_columns, change_notes  # noqa: F401
 from .trends_batch import EXACT_MAX_N, exact_p  # noqa: F401  (the exact p of few values)
+from .trends_batch import (SEASON_SHARE, TIE_RTOL, _average_ranks,  # noqa: F401
+                           _detrended, seasonal_years)
 
 #: Fewest complete years for a trend to be called valid.  The normal approximation of
 #: the Mann-Kendall statistic is used from n = 10 on (Gilbert 1987, Statistical Methods
@@ -29,14 +31,6 @@ MIN_YEARS = 10
 #: Two-sided significance level of the slope's confidence band [1]; 0.05, the 95 %
 #: band of Gilbert (1987), ch. 16 (common practice; from memory).
 ALPHA = 0.05
-#: Share of its seasons a year needs values in to count as one of the years of a
-#: seasonal trend [1].  Our choice (no published rule known to us): a year of one
-#: usable month counted as a whole year, so ten such years made a "valid" trend of ten
-#: monthly values; with half the seasons a counted year carries at least 6 of its 12
-#: within-month comparisons.  The test itself uses every month that has a value.
-SEASON_SHARE = 0.5
-
-
 class TrendResult(NamedTuple):
     """One trend test.  Slopes in the series' unit per year."""
 
@@ -179,31 +173,6 @@ def mann_kendall(x, t=None, alpha=ALPHA) -> TrendResult:
                        slope, lo, hi, icpt)
 
 
-def _average_ranks(v):
-    """Ranks 1..n of the values of `v` (last axis), ties given their mean rank, NaN
-    ranked not at all (NaN) [1]: the number of values below plus (number equal + 1)/2."""
-    v = np.asarray(v, float)
-    below = np.sum(v[..., None, :] < v[..., :, None], axis=-1)
-    equal = np.sum(v[..., None, :] == v[..., :, None], axis=-1)
-    return np.where(np.isnan(v), np.nan, below + (equal + 1) / 2.0)
-
-
-#: Relative tolerance under which two detrended values are one tie [1]: x_i - b t_i
-#: and x_j - b t_j equal in exact arithmetic (tied values, a slope of whole steps)
-#: can differ in the last bits; rounded to this share of the largest, they tie.
-TIE_RTOL = 1e-9
-
-
-def _detrended(x, slope, t):
-    """x - slope t rounded to :data:`TIE_RTOL` of the largest |value| (last axis), so
-    that ties of exact arithmetic stay ties [unit of x]."""
-    d = x - slope[..., None] * t if np.ndim(slope) else x - slope * t
-    with np.errstate(invalid="ignore"):
-        scale = np.nanmax(np.abs(d), axis=-1, keepdims=True) if d.size else d
-    scale = np.where(np.isfinite(scale) & (scale > 0), scale, 1.0) * TIE_RTOL
-    return np.round(d / scale) * scale
-
-
 def hamed_rao(x, t=None, alpha=ALPHA):
     """Hamed and Rao (1998) variance correction of the Mann-Kendall test for serial
     correlation.
@@ -294,24 +263,6 @@ def hirsch_slack_covariance(x) -> np.ndarray:
     k = 0.5 * np.einsum("ijg,ijh->gh", d, d)                # pairs i < j (d antisymmetric)
     c = d.sum(axis=1)                                       # (years, seasons)
     return (k + c.T @ c) / 3.0
-
-
-def seasonal_years(valid):
-    """Years that count towards :data:`MIN_YEARS` in a seasonal test: those with a value
-    in at least half their seasons (6 of 12 months), :data:`SEASON_SHARE`.
-
-    Parameters
-    ----------
-    valid : ndarray of bool, shape (..., years, seasons)
-
-    Returns
-    -------
-    int or ndarray of int, shape (...)
-    """
-    valid = np.asarray(valid, bool)
-    need = math.ceil(SEASON_SHARE * valid.shape[-1])
-    counted = np.sum(np.sum(valid, axis=-1) >= need, axis=-1)
-    return int(counted) if np.ndim(counted) == 0 else counted.astype(np.int64)
 
 
 def seasonal_kendall(x, years=None, correct=True, alpha=ALPHA) -> TrendResult:

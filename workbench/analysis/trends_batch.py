@@ -23,6 +23,55 @@ CHUNK_CELLS = 2_000_000
 #: when no two values are tied; the normal approximation is used from n = 10 on and with
 #: ties (Gilbert 1987, ch. 16, exact tables for small n; Kendall 1975; from memory).
 EXACT_MAX_N = 9
+#: Share of its seasons a year needs values in to count as one of the years of a
+#: seasonal trend [1] (re-exported by :mod:`.trends`).  Our choice (no published
+#: rule known to us): a year of one usable month counted as a whole year, so ten
+#: such years made a "valid" trend of ten monthly values; with half the seasons a
+#: counted year carries at least 6 of its 12 within-month comparisons.  The test
+#: itself uses every month that has a value.
+SEASON_SHARE = 0.5
+#: Relative tolerance under which two detrended values are one tie [1]: x_i - b t_i
+#: and x_j - b t_j equal in exact arithmetic (tied values, a slope of whole steps)
+#: can differ in the last bits; rounded to this share of the largest, they tie.
+TIE_RTOL = 1e-9
+
+
+def _detrended(x, slope, t):
+    """x - slope t rounded to :data:`TIE_RTOL` of the largest |value| (last axis), so
+    that ties of exact arithmetic stay ties [unit of x]."""
+    d = x - slope[..., None] * t if np.ndim(slope) else x - slope * t
+    with np.errstate(invalid="ignore"):
+        scale = np.nanmax(np.abs(d), axis=-1, keepdims=True) if d.size else d
+    scale = np.where(np.isfinite(scale) & (scale > 0), scale, 1.0) * TIE_RTOL
+    return np.round(d / scale) * scale
+
+
+def _average_ranks(v):
+    """Ranks 1..n of the values of `v` (last axis), ties given their mean rank, NaN
+    ranked not at all (NaN) [1]: the number of values below plus (number equal + 1)/2."""
+    v = np.asarray(v, float)
+    below = np.sum(v[..., None, :] < v[..., :, None], axis=-1)
+    equal = np.sum(v[..., None, :] == v[..., :, None], axis=-1)
+    return np.where(np.isnan(v), np.nan, below + (equal + 1) / 2.0)
+
+
+def seasonal_years(valid):
+    """Years that count towards the ten of a valid seasonal trend
+    (:data:`workbench.analysis.trends.MIN_YEARS`): those with a value in at least half
+    their seasons (6 of 12 months), :data:`SEASON_SHARE`.
+
+    Parameters
+    ----------
+    valid : ndarray of bool, shape (..., years, seasons)
+
+    Returns
+    -------
+    int or ndarray of int, shape (...)
+    """
+    valid = np.asarray(valid, bool)
+    need = math.ceil(SEASON_SHARE * valid.shape[-1])
+    counted = np.sum(np.sum(valid, axis=-1) >= need, axis=-1)
+    return int(counted) if np.ndim(counted) == 0 else counted.astype(np.int64)
 
 
 def _exact_p_table(n_max: int = EXACT_MAX_N) -> np.ndarray:
@@ -263,7 +312,6 @@ def seasonal_kendall_batch(x, t, alpha) -> dict:
     with np.errstate(invalid="ignore"):
         first = np.min(np.where(has, t, np.inf), axis=1)
         last = np.max(np.where(has, t, -np.inf), axis=1)
-    from .trends import seasonal_years
     n = seasonal_years(valid)
     any_ = has.any(axis=1)                  # a series with any value (first, last, min)
     return {"n": n, "s": s, "var_s": var_s, "z": z, "p_value": p, "tau": tau,
@@ -295,7 +343,6 @@ def hamed_rao_batch(x, t, plain, alpha) -> dict:
         ``factor`` (n/n* [1]), ``var_s``, ``z``, ``p_value`` of the corrected test
         (NaN: no test).
     """
-    from .trends import _average_ranks, _detrended
     x = np.asarray(x, float)
     t = np.asarray(t, float)
     n_series, n_t = x.shape
