@@ -148,3 +148,30 @@ def test_trend_table_option_and_default():
         hamed_rao(two["flux_kg_ha_yr"].to_numpy(), years.tolist() + [years[3]])[0])
     with pytest.raises(ValueError, match="serial_correction"):
         trend_table(rows, serial_correction="yue_wang")
+
+
+def test_monthly_rows_leave_the_columns_empty_and_an_exact_line_keeps_the_plain_test():
+    """The monthly rows carry the Hirsch-Slack test: the Hamed-Rao columns are empty
+    there.  An exact straight line detrends to equal values whose ranks have no
+    autocorrelation to measure: factor 1, the plain test (pymannkendall, ranking the
+    last bits of its detrending, gives the plain Var(S) here too)."""
+    years = np.arange(2000, 2012)
+    starts = pd.date_range("2000-01-01", periods=144, freq="MS")
+    rng = np.random.default_rng(2)
+    months = pd.DataFrame({"site": "alpha", "receptor": "grass", "element": "S",
+                           "pathway": "wet", "species": "SO4",
+                           "period": starts.strftime("%Y-%m"), "period_start": starts,
+                           "flux_kg_ha_yr": 5 + rng.normal(0, 1, 144), "status": "complete"})
+    x = 5.0 + 0.2 * np.arange(12) + rng.normal(0, 0.3, 12)
+    t = trend_table(_rows(x, years), months, serial_correction="hamed_rao")
+    mon = t[t["series"] == "monthly"]
+    assert len(mon) == 2 and mon[list(HAMED_RAO_COLUMNS)].isna().all().all()
+    ann = t[t["series"] == "annual"]
+    assert np.isfinite(ann["p_value_hamed_rao"]).all()
+    line = 5.0 + 0.2 * np.arange(12)
+    plain = mann_kendall(line)
+    assert hamed_rao(line) == (1.0, plain.var_s, plain.z, plain.p_value)
+    assert mk.hamed_rao_modification_test(line).var_s == pytest.approx(plain.var_s)
+    b = hamed_rao_batch(line[None], np.arange(12.0),
+                        mann_kendall_batch(line[None], np.arange(12.0), 0.05), 0.05)
+    assert b["factor"][0] == 1.0 and b["p_value"][0] == plain.p_value

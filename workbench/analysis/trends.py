@@ -199,8 +199,9 @@ def hamed_rao(x, t=None, alpha=ALPHA):
     factor, var_s, z, p : float
         n/n* [1], the corrected Var(S) [1], its continuity-corrected normal score and
         two-sided p [1].  Where no lag counts (factor exactly 1) p is the plain test's
-        p (exact for few values); fewer than 3 values, all ranks tied, or a factor
-        <= 0 (strong negative correlation): NaN (no test).
+        p (exact for few values), and so on an exact straight line (the detrended
+        values all equal: no autocorrelation to measure); fewer than 3 values, all
+        values equal, or a factor <= 0 (strong negative correlation): NaN (no test).
 
     References
     ----------
@@ -220,8 +221,8 @@ def hamed_rao(x, t=None, alpha=ALPHA):
     r = _average_ranks(_detrended(xs, plain.slope, ts - ts[0]))
     y = r - r.mean()
     acov = np.correlate(y, y, "full")[n - 1:] / n            # lags 0 .. n-1
-    if acov[0] <= 0:
-        return (np.nan,) * 4
+    if acov[0] <= 0:                 # an exact line: nothing left to correlate
+        return 1.0, plain.var_s, plain.z, plain.p_value
     rho = acov[1:] / acov[0]
     k = np.arange(1, n)
     bound = NormalDist().inv_cdf(1.0 - alpha / 2.0) / math.sqrt(n)

@@ -374,8 +374,8 @@ def hamed_rao_batch(x, t, plain, alpha) -> dict:
             w = (nn[:, None] - k) * (nn[:, None] - k - 1) * (nn[:, None] - k - 2.0)
             total = np.sum(np.where(sig, w * rho, 0.0), axis=1)
             f = 1.0 + 2.0 / (nn * (nn - 1) * (nn - 2.0)) * total
-        ok = (nn >= 3) & (acov[:, 0] > 0) & np.isfinite(plain["var_s"][sl]) \
-            & (plain["var_s"][sl] > 0)
+        ok = (nn >= 3) & np.isfinite(plain["var_s"][sl]) & (plain["var_s"][sl] > 0)
+        f = np.where(acov[:, 0] > 0, f, 1.0)        # an exact line: nothing to correlate
         factor[sl] = np.where(ok, f, np.nan)
     with np.errstate(invalid="ignore"):
         var_s = np.where(factor > 0, plain["var_s"] * factor, np.nan)
