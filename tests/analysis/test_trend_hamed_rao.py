@@ -119,12 +119,12 @@ def test_batch_equals_reference():
     assert np.isnan(b["p_value"][[5, 6]]).all()
 
 
-def _rows(x, years, dup_year=None):
-    f = pd.DataFrame({"site": "alpha", "receptor": "grass", "element": "S", "pathway": "wet",
-                      "species": "SO4", "period": years.astype(str),
-                      "period_start": pd.to_datetime([f"{y}-01-01" for y in years]),
-                      "flux_kg_ha_yr": x, "status": "complete"})
-    return f
+def _rows(x, years):
+    """Invented budget.csv rows of one annual series (wet SO4 of one site)."""
+    return pd.DataFrame({"site": "alpha", "receptor": "grass", "element": "S",
+                         "pathway": "wet", "species": "SO4", "period": years.astype(str),
+                         "period_start": pd.to_datetime([f"{y}-01-01" for y in years]),
+                         "flux_kg_ha_yr": x, "status": "complete"})
 
 
 def test_trend_table_option_and_default():
