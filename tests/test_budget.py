@@ -434,3 +434,40 @@ def test_span_uses_a_year_flagged_only_for_kept_samples():
     assert tot["flux_kg_ha_yr"] == pytest.approx(15.0)
     assert tot["years_used"] == "2019 2020" and tot["years_excluded"] == "2021"
     assert tot["status"] == "flagged"
+
+
+def test_wet_sulfate_rows_say_their_basis(tmp_path):
+    """budget.csv's wet S rows keep the label SO4 and say which sulfate they hold in
+    `sulfate_basis`: total on the total basis, non-sea-salt on the nss basis with Na,
+    total where the nss basis fell back (no Na at the site; the note says why); empty
+    on every other row.  Before, the column did not exist and SO4 held nss SO4 silently."""
+    (tmp_path / "total").mkdir()
+    sc = _write(tmp_path / "total")
+    written, _, _ = run_scenario(sc, tmp_path / "total" / "out", quiet=True)
+    t = pd.read_csv(written["budget.csv"], keep_default_na=False)
+    assert _get(t, "S", "wet", "SO4")["sulfate_basis"] == "total"
+    assert _get(t, "S", "wet", "all")["sulfate_basis"] == "total"
+    rest = t[~((t["element"] == "S") & (t["pathway"] == "wet")) & (t["period"] != "span")]
+    assert len(rest) and (rest["sulfate_basis"] == "").all()
+    (tmp_path / "nss").mkdir()
+    sc = _write(tmp_path / "nss")
+    sc.write_text(sc.read_text().replace('sulfate_basis = "total"', 'sulfate_basis = "nss"'))
+    precip = tmp_path / "nss" / "precip.csv"           # Na 1 umol/L in the wet weeks
+    precip.write_text(precip.read_text().replace(",0.0\n", ",1.0\n"))
+    written, _, _ = run_scenario(sc, tmp_path / "nss" / "out", quiet=True)
+    t = pd.read_csv(written["budget.csv"], keep_default_na=False)
+    assert _get(t, "S", "wet", "SO4")["sulfate_basis"] == "non-sea-salt"
+    assert _get(t, "S", "wet", "all")["sulfate_basis"] == "non-sea-salt"
+    assert _get(t, "S", "total", "all")["sulfate_basis"] == ""
+    (tmp_path / "nona").mkdir()
+    sc = _write(tmp_path / "nona")
+    sc.write_text(sc.read_text().replace('sulfate_basis = "total"', 'sulfate_basis = "nss"'))
+    precip = tmp_path / "nona" / "precip.csv"
+    lines = precip.read_text().splitlines()
+    precip.write_text("\n".join(ln.rsplit(",", 1)[0] + "," for ln in lines[1:])
+                      .join([lines[0] + "\n", "\n"]))
+    written, _, _ = run_scenario(sc, tmp_path / "nona" / "out", quiet=True)
+    t = pd.read_csv(written["budget.csv"], keep_default_na=False)
+    so4 = _get(t, "S", "wet", "SO4")
+    assert so4["sulfate_basis"] == "total" and "total SO4 used" in so4["note"]
+    assert _get(t, "S", "wet", "all")["sulfate_basis"] == "total"

@@ -83,3 +83,24 @@ def test_demo_span_rows_summarise_the_yearly_notes(ridge_run):
             assert p in said, (key, p, said)
         if not parts:
             assert said == "", (key, said)
+
+
+def test_span_row_of_wet_sulfate_says_its_basis():
+    """A span mean of wet S over years of non-sea-salt SO4 and one year that fell back
+    to total SO4 says ``total`` (sea salt included in part of it); over nss years only,
+    ``non-sea-salt``; other rows stay empty (tables.SULFATE_BASIS_WORDS)."""
+    rows = []
+    for year, basis in ((2017, "non-sea-salt"), (2018, "total"), (2019, "non-sea-salt")):
+        common = dict(site="ridge", receptor="moorland", element="S",
+                      period_start=pd.Timestamp(f"{year}-01-01"),
+                      period_end=pd.Timestamp(f"{year + 1}-01-01"), completeness=1.0,
+                      flagged_components="", missing_components="", note="",
+                      flux_kg_ha_yr=2.0, flux_eq_ha_yr=120.0, status="complete", passes=True)
+        rows.append({**common, "pathway": "wet", "species": "SO4", "sulfate_basis": basis})
+        rows.append({**common, "pathway": "total", "species": "all", "sulfate_basis": ""})
+    t = pd.DataFrame(rows)
+    span = span_table(t).set_index("pathway")
+    assert span.loc["wet", "sulfate_basis"] == "total"
+    assert span.loc["total", "sulfate_basis"] == ""
+    t.loc[t["sulfate_basis"] == "total", "sulfate_basis"] = "non-sea-salt"
+    assert span_table(t).set_index("pathway").loc["wet", "sulfate_basis"] == "non-sea-salt"

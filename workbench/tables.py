@@ -130,8 +130,8 @@ def budget_table(ds: xr.Dataset, lean: bool = False) -> pd.DataFrame:
     if "options" in ds.attrs:
         basis = json.loads(ds.attrs["options"]).get("sulfate_basis", "nss")
     frame = _wet_columns(ds, frame, basis)
-    frame = _nh3_columns(ds, frame)
-    return _sorted(_sum_notes(frame))
+    frame = _sum_notes(_nh3_columns(ds, frame))
+    return _sorted(frame.assign(sulfate_basis=_sulfate_basis(ds, frame, basis)))
 
 
 #: The keys of one sum row's parts: same site, receptor, period and element.
@@ -328,6 +328,16 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     agg["note"] = join_notes(fewer_note, yearly)
     cols = list(BUDGET_COLUMNS) + ["period", "years_used", "years_excluded",
                                    "missing_components", "flagged_components", "note"]
+    if "sulfate_basis" in used:
+        # the span mean of wet S is total SO4 if any year used holds total SO4
+        word = used["sulfate_basis"].fillna("").astype(str)
+        basis = word.map({"": 0, SULFATE_BASIS_WORDS["nss"]: 1,
+                          SULFATE_BASIS_WORDS["total"]: 2}).fillna(0)
+        top = used.assign(_b=basis).groupby(keys, sort=False)["_b"].max()
+        top = top.reindex(pd.MultiIndex.from_frame(agg[keys])).fillna(0).to_numpy()
+        agg["sulfate_basis"] = np.select([top == 2, top == 1], [
+            SULFATE_BASIS_WORDS["total"], SULFATE_BASIS_WORDS["nss"]], "").astype(object)
+        cols.append("sulfate_basis")
     return agg[cols]
 
 
@@ -381,6 +391,36 @@ def _union_of_parts(rows: pd.DataFrame, keys, col: str, order: dict) -> pd.Serie
     pos = names[col].map(order).fillna(len(order))
     names = names.assign(_pos=pos).sort_values(keys + ["_pos", col], kind="stable")
     return names.groupby(keys, sort=False)[col].agg(" ".join)
+
+
+#: ``sulfate_basis`` of budget.csv: what the wet S rows (labelled ``SO4``) hold.
+SULFATE_BASIS_WORDS = {"nss": "non-sea-salt", "total": "total"}
+#: The words of a wet SO4 note where the non-sea-salt mean fell back to the total ion
+#: (:func:`workbench.budgetstatus.wet_mean_status`, the whole record or one period).
+FALLBACK_WORDS = "total SO4 used in place of non-sea-salt SO4"
+
+
+def _sulfate_basis(ds: xr.Dataset, frame: pd.DataFrame, basis: str) -> np.ndarray:
+    """``non-sea-salt`` or ``total`` on the wet S rows (the SO4 component and the wet S
+    sum, which is that SO4), empty on the others: the component keeps the label
+    ``SO4`` (a public key of budget.csv, trends.csv and the comparison tables) and this
+    column says which sulfate it holds.  ``non-sea-salt`` where the nss basis was asked
+    for and the wet chain has the non-sea-salt mean (``nssSO4`` among its ions, or
+    ``dep_nssSO4``); ``total`` on the total basis and where the nss basis fell back for
+    the whole record or a period (no tracer; the row is flagged and its note says
+    :data:`FALLBACK_WORDS`, which this reads: the sum row gathers its part's note).
+    Before 2026-12 the rows said ``SO4`` only, whatever they held."""
+    ions = list(ds["wet_ion"].values.astype(str)) if "wet_ion" in ds.coords else []
+    have_nss = "nssSO4" in ions or "dep_nssSO4" in ds.variables
+    word = SULFATE_BASIS_WORDS["nss" if basis == "nss" and have_nss else "total"]
+    rows = ((frame["element"].astype(str) == "S") & (frame["pathway"].astype(str) == "wet")
+            & frame["species"].astype(str).isin(("SO4", "all"))).to_numpy()
+    out = np.where(rows, word, "").astype(object)
+    if "note" in frame and word != "total":
+        fell = frame["note"].fillna("").astype(str).str.contains(FALLBACK_WORDS,
+                                                                  regex=False).to_numpy()
+        out = np.where(rows & fell, SULFATE_BASIS_WORDS["total"], out).astype(object)
+    return out
 
 
 def _wet_columns(ds: xr.Dataset, frame: pd.DataFrame, basis: str) -> pd.DataFrame:

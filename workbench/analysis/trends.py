@@ -19,6 +19,8 @@ import numpy as np
 
 from .trend_changes import CHANGE_NOTE, _change_columns, change_notes  # noqa: F401
 from .trends_batch import EXACT_MAX_N, exact_p  # noqa: F401  (the exact p of few values)
+from .trends_batch import (SEASON_SHARE, TIE_RTOL, _average_ranks,  # noqa: F401
+                           _detrended, seasonal_years)
 
 #: Fewest complete years for a trend to be called valid.  The normal approximation of
 #: the Mann-Kendall statistic is used from n = 10 on (Gilbert 1987, Statistical Methods
@@ -32,7 +34,8 @@ ALPHA = 0.05
 class TrendResult(NamedTuple):
     """One trend test.  Slopes in the series' unit per year."""
 
-    n: int                 #: values used (annual) or years with a value (seasonal) [1]
+    n: int                 #: values used (annual) or years with values in at least
+    #: half the seasons (seasonal, :func:`seasonal_years`) [1]
     s: float               #: Mann-Kendall score S [1]
     var_s: float           #: variance of S (ties; Hirsch-Slack covariances if asked) [1]
     z: float               #: standard normal score (continuity-corrected) [1]
@@ -170,6 +173,71 @@ def mann_kendall(x, t=None, alpha=ALPHA) -> TrendResult:
                        slope, lo, hi, icpt)
 
 
+def hamed_rao(x, t=None, alpha=ALPHA):
+    """Hamed and Rao (1998) variance correction of the Mann-Kendall test for serial
+    correlation.
+
+    The values are detrended with Sen's slope (x - slope t, t from the first year,
+    rounded so that exact ties stay ties: :data:`TIE_RTOL`), ranked, and the
+    autocorrelation rho_k of the ranks computed at every lag k = 1 .. n-1 of the values
+    in time order (a missing year is closed up, as the skipped values of the reference
+    library; the lag counts values, not years).  Only the lags with |rho_k| above
+    z_{1-alpha/2}/sqrt(n) count; the variance of S is multiplied by
+    n/n* = 1 + 2/[n(n-1)(n-2)] sum_k (n-k)(n-k-1)(n-k-2) rho_k.
+
+    Parameters
+    ----------
+    x : array_like
+        Values [any unit]; NaN missing.
+    t : array_like, optional
+        Times [yr] (default 0, 1, 2, ...).
+    alpha : float
+        Two-sided level of the lags' significance and of the test [1].
+
+    Returns
+    -------
+    factor, var_s, z, p : float
+        n/n* [1], the corrected Var(S) [1], its continuity-corrected normal score and
+        two-sided p [1].  Where no lag counts (factor exactly 1) p is the plain test's
+        p (exact for few values), and so on an exact straight line (the detrended
+        values all equal: no autocorrelation to measure); fewer than 3 values, all
+        values equal, or a factor <= 0 (strong negative correlation): NaN (no test).
+
+    References
+    ----------
+    Hamed, K.H., Rao, A.R. (1998) A modified Mann-Kendall trend test for autocorrelated
+    data. J. Hydrol. 204, 182-196 (eq. of n/n* as above; from memory, checked against
+    pymannkendall's ``hamed_rao_modification_test`` in tests/analysis/test_trend_hamed_rao.py).
+    """
+    x = np.asarray(x, float)
+    t = np.arange(x.size, dtype=float) if t is None else np.asarray(t, float)
+    plain = mann_kendall(x, t, alpha)
+    ok = ~np.isnan(x)
+    order = np.argsort(t[ok], kind="stable")
+    xs, ts = x[ok][order], t[ok][order]
+    n = xs.size
+    if n < 3 or not np.isfinite(plain.var_s) or plain.var_s <= 0:
+        return (np.nan,) * 4
+    r = _average_ranks(_detrended(xs, plain.slope, ts - ts[0]))
+    y = r - r.mean()
+    acov = np.correlate(y, y, "full")[n - 1:] / n            # lags 0 .. n-1
+    if acov[0] <= 0:                 # an exact line: nothing left to correlate
+        return 1.0, plain.var_s, plain.z, plain.p_value
+    rho = acov[1:] / acov[0]
+    k = np.arange(1, n)
+    bound = NormalDist().inv_cdf(1.0 - alpha / 2.0) / math.sqrt(n)
+    sig = np.abs(rho) > bound
+    w = (n - k) * (n - k - 1) * (n - k - 2.0)
+    factor = float(1.0 + 2.0 / (n * (n - 1) * (n - 2)) * np.sum(np.where(sig, w * rho, 0.0)))
+    if factor <= 0:
+        return factor, np.nan, np.nan, np.nan
+    var_s = plain.var_s * factor
+    if factor == 1.0:
+        return factor, var_s, plain.z, plain.p_value
+    z = _z(plain.s, var_s)
+    return factor, var_s, z, _p(z)
+
+
 def hirsch_slack_covariance(x) -> np.ndarray:
     """Covariances of the Mann-Kendall scores of the seasons, over the same years.
 
@@ -217,7 +285,9 @@ def seasonal_kendall(x, years=None, correct=True, alpha=ALPHA) -> TrendResult:
     Returns
     -------
     TrendResult
-        ``n`` is the number of years with at least one value; the slope is the median
+        ``n`` is the number of years with values in at least half the seasons
+        (:func:`seasonal_years`; before 2026-12 any year with one value counted); the
+        slope is the median
         of the within-season slopes [unit yr-1].
 
     References
@@ -247,7 +317,7 @@ def seasonal_kendall(x, years=None, correct=True, alpha=ALPHA) -> TrendResult:
     ok = ~np.isnan(x)
     tt = np.broadcast_to(t[:, None], x.shape)
     icpt = float(np.median(x[ok]) - slope * np.median(tt[ok])) if ok.any() else np.nan
-    return TrendResult(int(np.sum(ok.any(axis=1))), s, var_s, z, _p(z),
+    return TrendResult(seasonal_years(ok), s, var_s, z, _p(z),
                        s / pairs if pairs else np.nan, slope, lo, hi, icpt)
 
 
@@ -319,6 +389,14 @@ def _note(variant, few, min_years, excluded, dl, flags=()) -> str:
         note.append(dl)
     return "; ".join(note)
 
+
+#: Columns of trends.csv with ``serial_correction="hamed_rao"`` (annual rows; NaN on
+#: the monthly rows, whose test has the Hirsch-Slack correction): column -> field of
+#: :func:`.trends_batch.hamed_rao_batch` as stored beside the plain statistics.
+HAMED_RAO_COLUMNS = {"hamed_rao_factor": "hr_factor", "var_s_hamed_rao": "hr_var_s",
+                     "z_hamed_rao": "hr_z", "p_value_hamed_rao": "hr_p_value"}
+#: Values of ``serial_correction`` of :func:`trend_table`.
+SERIAL_CORRECTIONS = (None, "hamed_rao")
 
 #: Why a row has no test or no percent slope (notes of trends.csv).
 NO_TEST = "all values equal (Var S = 0): no test"
@@ -427,14 +505,16 @@ def _table_rows(keys, series, stats_by_variant, min_years, excluded, dl, gaps=No
                  "slope_high_per_yr": st["slope_high"], "intercept": st["intercept"],
                  "unit": np.full(n.size, "kg ha-1 yr-1", dtype=object),
                  "method_changes": np.full(n.size, "", dtype=object)})
+    if "hr_p_value" in st:
+        cols.update({c: st[k] for c, k in HAMED_RAO_COLUMNS.items()})
     return cols
 
 
-def _annual_columns(y, dl_notes, min_years, alpha):
+def _annual_columns(y, dl_notes, min_years, alpha, serial=None):
     """Mann-Kendall columns of :func:`trend_table`: the (series, year) grid of every
     series at once (:func:`.trends_batch.mann_kendall_batch`)."""
     import pandas as pd
-    from .trends_batch import mann_kendall_batch
+    from .trends_batch import hamed_rao_batch, mann_kendall_batch
     keys, code, order = _series_index(y)
     code = code[order]
     year = pd.DatetimeIndex(y["period_start"]).year.to_numpy()[order]
@@ -450,6 +530,9 @@ def _annual_columns(y, dl_notes, min_years, alpha):
         grid = np.full((len(keys), all_years.size), np.nan)
         grid[code[use], yi[use]] = x[use]
         stats[variant] = mann_kendall_batch(grid, all_years.astype(float), alpha)
+        if serial == "hamed_rao":
+            hr = hamed_rao_batch(grid, all_years.astype(float), stats[variant], alpha)
+            stats[variant].update({f"hr_{k}": v for k, v in hr.items()})
         excluded[variant] = _left_out_notes(code[~use], status[~use], len(keys))
     dl = [_dl_note(dl_notes, *k[:1], *k[2:]) for k in keys]
     return _table_rows(keys, "annual", stats, min_years, excluded, dl,
@@ -474,7 +557,7 @@ def _gap_notes(code, year, n_series) -> list:
     return notes
 
 
-def _annual_rows_per_series(y, dl_notes, min_years, alpha):
+def _annual_rows_per_series(y, dl_notes, min_years, alpha, serial=None):
     """The annual rows one series at a time (a series with two rows in one year)."""
     import pandas as pd
     keys, code, order = _series_index(y)
@@ -495,6 +578,9 @@ def _annual_rows_per_series(y, dl_notes, min_years, alpha):
             rows.append(_row(key, "annual", variant, years[use], r, min_years,
                              np.median(x[use]) if use.any() else np.nan, excluded, dl,
                              np.min(x[use]) if use.any() else np.nan, gaps))
+            if serial == "hamed_rao":
+                hr = hamed_rao(np.where(use, x, np.nan), years.astype(float), alpha)
+                rows[-1].update(zip(HAMED_RAO_COLUMNS, hr))
     return rows
 
 
@@ -529,7 +615,7 @@ def _monthly_columns(month_rows, dl_notes, min_years, alpha):
 
 
 def trend_table(year_rows, month_rows=None, dl_notes=None, min_years=MIN_YEARS,
-                alpha=ALPHA, changes=None):
+                alpha=ALPHA, changes=None, serial_correction=None):
     """``trends.csv``: a trend per site, receptor, element, pathway and species.
 
     Parameters
@@ -546,6 +632,11 @@ def trend_table(year_rows, month_rows=None, dl_notes=None, min_years=MIN_YEARS,
     changes : dict, optional
         :func:`change_notes`: a row whose years cross a change of method names it in
         ``method_changes`` and in its note.
+    serial_correction : {None, "hamed_rao"}
+        ``"hamed_rao"`` adds, beside the plain Mann-Kendall test of each annual row, the
+        test with the Hamed and Rao (1998) variance correction for serial correlation
+        (:func:`hamed_rao`): the columns of :data:`HAMED_RAO_COLUMNS` (NaN on the
+        monthly rows).  The default leaves the table as it was.
 
     Returns
     -------
@@ -556,17 +647,24 @@ def trend_table(year_rows, month_rows=None, dl_notes=None, min_years=MIN_YEARS,
         ``all``); the note counts the years left out by status.
     """
     import pandas as pd
+    if serial_correction not in SERIAL_CORRECTIONS:
+        raise ValueError(f"serial_correction {serial_correction!r}: expected one of "
+                         f"{SERIAL_CORRECTIONS}")
     dl_notes = dl_notes or {}
     y = year_rows[year_rows["period"].astype(str) != "span"]
     parts = []
-    annual = _annual_columns(y, dl_notes, min_years, alpha)
+    annual = _annual_columns(y, dl_notes, min_years, alpha, serial_correction)
     parts.append(pd.DataFrame(annual) if annual is not None
-                 else pd.DataFrame(_annual_rows_per_series(y, dl_notes, min_years, alpha)))
+                 else pd.DataFrame(_annual_rows_per_series(y, dl_notes, min_years, alpha,
+                                                           serial_correction)))
     if month_rows is not None and len(month_rows):
         parts.append(pd.DataFrame(_monthly_columns(month_rows, dl_notes, min_years, alpha)))
     parts = [p for p in parts if len(p)]
     if not parts:
         return pd.DataFrame(columns=list(TREND_COLUMNS) + ["method_changes"])
     table = parts[0] if len(parts) == 1 else pd.concat(parts, ignore_index=True)
+    if serial_correction == "hamed_rao":           # monthly rows: NaN, columns last
+        table = table.reindex(columns=[c for c in table.columns if c not in
+                                       HAMED_RAO_COLUMNS] + list(HAMED_RAO_COLUMNS))
     crossed, note = _change_columns(table, changes)
     return table.assign(note=note, method_changes=crossed)

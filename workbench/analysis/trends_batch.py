@@ -23,6 +23,55 @@ CHUNK_CELLS = 2_000_000
 #: when no two values are tied; the normal approximation is used from n = 10 on and with
 #: ties (Gilbert 1987, ch. 16, exact tables for small n; Kendall 1975; from memory).
 EXACT_MAX_N = 9
+#: Share of its seasons a year needs values in to count as one of the years of a
+#: seasonal trend [1] (re-exported by :mod:`.trends`).  Our choice (no published
+#: rule known to us): a year of one usable month counted as a whole year, so ten
+#: such years made a "valid" trend of ten monthly values; with half the seasons a
+#: counted year carries at least 6 of its 12 within-month comparisons.  The test
+#: itself uses every month that has a value.
+SEASON_SHARE = 0.5
+#: Relative tolerance under which two detrended values are one tie [1]: x_i - b t_i
+#: and x_j - b t_j equal in exact arithmetic (tied values, a slope of whole steps)
+#: can differ in the last bits; rounded to this share of the largest, they tie.
+TIE_RTOL = 1e-9
+
+
+def _detrended(x, slope, t):
+    """x - slope t rounded to :data:`TIE_RTOL` of the largest |value| (last axis), so
+    that ties of exact arithmetic stay ties [unit of x]."""
+    d = x - slope[..., None] * t if np.ndim(slope) else x - slope * t
+    with np.errstate(invalid="ignore"):
+        scale = np.nanmax(np.abs(d), axis=-1, keepdims=True) if d.size else d
+    scale = np.where(np.isfinite(scale) & (scale > 0), scale, 1.0) * TIE_RTOL
+    return np.round(d / scale) * scale
+
+
+def _average_ranks(v):
+    """Ranks 1..n of the values of `v` (last axis), ties given their mean rank, NaN
+    ranked not at all (NaN) [1]: the number of values below plus (number equal + 1)/2."""
+    v = np.asarray(v, float)
+    below = np.sum(v[..., None, :] < v[..., :, None], axis=-1)
+    equal = np.sum(v[..., None, :] == v[..., :, None], axis=-1)
+    return np.where(np.isnan(v), np.nan, below + (equal + 1) / 2.0)
+
+
+def seasonal_years(valid):
+    """Years that count towards the ten of a valid seasonal trend
+    (:data:`workbench.analysis.trends.MIN_YEARS`): those with a value in at least half
+    their seasons (6 of 12 months), :data:`SEASON_SHARE`.
+
+    Parameters
+    ----------
+    valid : ndarray of bool, shape (..., years, seasons)
+
+    Returns
+    -------
+    int or ndarray of int, shape (...)
+    """
+    valid = np.asarray(valid, bool)
+    need = math.ceil(SEASON_SHARE * valid.shape[-1])
+    counted = np.sum(np.sum(valid, axis=-1) >= need, axis=-1)
+    return int(counted) if np.ndim(counted) == 0 else counted.astype(np.int64)
 
 
 def _exact_p_table(n_max: int = EXACT_MAX_N) -> np.ndarray:
@@ -218,7 +267,8 @@ def seasonal_kendall_batch(x, t, alpha) -> dict:
     Returns
     -------
     dict of ndarray, shape (series,)
-        As :func:`mann_kendall_batch` (``n``: years with at least one value), the same
+        As :func:`mann_kendall_batch` (``n``: years with values in at least half the
+        seasons, :func:`workbench.analysis.trends.seasonal_years`), the same
         numbers as :func:`workbench.analysis.trends.seasonal_kendall` with
         ``correct=True`` on each series.
     """
@@ -262,10 +312,76 @@ def seasonal_kendall_batch(x, t, alpha) -> dict:
     with np.errstate(invalid="ignore"):
         first = np.min(np.where(has, t, np.inf), axis=1)
         last = np.max(np.where(has, t, -np.inf), axis=1)
-    n = has.sum(axis=1).astype(np.int64)
+    n = seasonal_years(valid)
+    any_ = has.any(axis=1)                  # a series with any value (first, last, min)
     return {"n": n, "s": s, "var_s": var_s, "z": z, "p_value": p, "tau": tau,
             "slope": out["slope"], "slope_low": out["slope_low"],
             "slope_high": out["slope_high"], "intercept": icpt, "median": med,
-            "min": np.where(n > 0, np.min(np.where(valid, x, np.inf).reshape(n_series, -1),
-                                          axis=1), np.nan),
-            "t_first": np.where(n > 0, first, np.nan), "t_last": np.where(n > 0, last, np.nan)}
+            "min": np.where(any_, np.min(np.where(valid, x, np.inf).reshape(n_series, -1),
+                                         axis=1), np.nan),
+            "t_first": np.where(any_, first, np.nan), "t_last": np.where(any_, last, np.nan)}
+
+
+def hamed_rao_batch(x, t, plain, alpha) -> dict:
+    """Hamed and Rao (1998) correction of every row's Mann-Kendall test: the numbers of
+    :func:`workbench.analysis.trends.hamed_rao` on each row, without a call per series.
+
+    Parameters
+    ----------
+    x : ndarray, shape (series, years)
+        Values [any unit]; NaN missing.
+    t : ndarray, shape (years,)
+        Times of the columns [yr], increasing.
+    plain : dict
+        :func:`mann_kendall_batch` of the same `x`, `t` and `alpha`.
+    alpha : float
+        Two-sided level of the lags' significance and of the test [1].
+
+    Returns
+    -------
+    dict of ndarray, shape (series,)
+        ``factor`` (n/n* [1]), ``var_s``, ``z``, ``p_value`` of the corrected test
+        (NaN: no test).
+    """
+    x = np.asarray(x, float)
+    t = np.asarray(t, float)
+    n_series, n_t = x.shape
+    n = plain["n"].astype(np.int64)
+    factor = np.full(n_series, np.nan)
+    zc = NormalDist().inv_cdf(1.0 - alpha / 2.0)
+    i, j = np.triu_indices(n_t)                                # lag 0 included
+    lag = j - i
+    onehot = np.zeros((i.size, n_t))
+    onehot[np.arange(i.size), lag] = 1.0
+    for sl in _chunks(n_series, n_t * n_t):
+        xs = x[sl]
+        valid = ~np.isnan(xs)
+        # the values of each row in time order, closed up (present first), NaN after
+        order = np.argsort(~valid, axis=1, kind="stable")
+        vals = np.take_along_axis(xs, order, axis=1)
+        times = np.take_along_axis(np.broadcast_to(t, xs.shape), order, axis=1)
+        nn = n[sl]
+        t0 = times[:, :1]
+        d = _detrended(vals, plain["slope"][sl], times - t0)
+        r = _average_ranks(d)
+        y = np.where(np.isnan(r), 0.0, r - np.where(nn > 0, (nn + 1) / 2.0, 0.0)[:, None])
+        acov = (y[:, i] * y[:, j]) @ onehot / np.maximum(nn, 1)[:, None]   # (rows, lags)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            rho = acov[:, 1:] / acov[:, :1]
+            k = np.arange(1, n_t)[None, :]
+            bound = zc / np.sqrt(np.maximum(nn, 1))[:, None]
+            sig = (np.abs(rho) > bound) & (k < nn[:, None])
+            w = (nn[:, None] - k) * (nn[:, None] - k - 1) * (nn[:, None] - k - 2.0)
+            total = np.sum(np.where(sig, w * rho, 0.0), axis=1)
+            f = 1.0 + 2.0 / (nn * (nn - 1) * (nn - 2.0)) * total
+        ok = (nn >= 3) & np.isfinite(plain["var_s"][sl]) & (plain["var_s"][sl] > 0)
+        f = np.where(acov[:, 0] > 0, f, 1.0)        # an exact line: nothing to correlate
+        factor[sl] = np.where(ok, f, np.nan)
+    with np.errstate(invalid="ignore"):
+        var_s = np.where(factor > 0, plain["var_s"] * factor, np.nan)
+    s = np.nan_to_num(plain["s"])
+    z, p = _z_p(s, np.nan_to_num(var_s))
+    same = factor == 1.0                    # no lag counts: the plain test (its exact p)
+    z = np.where(same, plain["z"], np.where(np.isnan(var_s), np.nan, z))
+    p = np.where(same, plain["p_value"], np.where(np.isnan(var_s), np.nan, p))
+    return {"factor": factor, "var_s": var_s, "z": z, "p_value": p}
