@@ -19,7 +19,7 @@ from .assumptions import ASSUMPTIONS, Settings
 from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, make_control,
                        open_with_progress, refresh, set_quietly, table_html, wrap_labels_style)
-from .figure_open import page
+from .figure_open import NARROW_OUTPUT_PX, PAGE_FIGURE_WIDTH, page  # noqa: F401
 from .scheme_tab import SchemeTab
 from .session import Session, output_dir
 from .palette import TEMPLATE
@@ -34,10 +34,9 @@ LAZY_TABS = ("gas schemes",)
 #: Titles of the velocity tabs when no velocities were computed.
 NO_VELOCITIES = {"deposition velocity": "no deposition velocities (fixed or no met)",
                  "resistances": "no resistances (fixed velocities or no met)"}
-#: Output area of a notebook in a 1,000 px browser window beside JupyterLab's open
-#: file browser [px] (measured in chromium, JupyterLab 4.6): the narrowest area the
-#: explorer is made to fit.
-NARROW_OUTPUT_PX = 568
+# NARROW_OUTPUT_PX, the output area beside JupyterLab's open file browser [px], the
+# narrowest area the explorer is made to fit: defined in figure_open beside
+# PAGE_FIGURE_WIDTH (the other apps' figures) and imported above.
 #: What a tab's border and padding take of that width [px] (measured likewise).
 TAB_PADDING_PX = 36
 #: Width of the explorer's figures [px]: they fit a tab in the narrowest output area.
