@@ -414,16 +414,28 @@ class SiteExplorer(SavedText, widgets.VBox):
     def _on_control(self, change):
         key = next(k for k, w in self.controls.items() if w is change["owner"])
         a = ASSUMPTIONS[key]
+        old, before = a.get(self.settings, self.site), self.settings
         self.settings = a.set(self.settings, self.site, change["new"])
         self.recompute("recomputing deposition velocities (a few seconds)" if a.stage == "dry"
                        else f"recomputing ({a.stage} stage)")
         if self._before is not None and self._before["value"].equals(self._totals["value"]):
             site = self.session.study.catalogue()[self.site]
-            self.change_w.value += html.escape(" — " + no_effect_text(
+            text = no_effect_text(
                 key, a.label, component_rates(self.result.years, self.site,
                                               self.receptor_w.value),
                 site.collector, self.settings.budget.bulk_correction,
-                self.settings.budget.pair_split, self.settings.budget.sulfate_basis))
+                self.settings.budget.pair_split, self.settings.budget.sulfate_basis)
+            if key == "dry.wetness_rule" and text.endswith("."):
+                # "met" without a surface_wet column is "inferred": say so (the line
+                # gave no reason and the control read as broken)
+                from .no_effect import wetness_rule_reason
+                met_run = (self.result if change["new"] == "met" else   # the run under "met"
+                           self.session.run(before, self.site, *self.years, "year",
+                                            self.receptor_w.value))
+                why = wetness_rule_reason(met_run.velocities, self.site,
+                                          self.receptor_w.value, old, change["new"])
+                text = f"{text[:-1]} ({why})." if why else text
+            self.change_w.value += html.escape(" — " + text)
 
     def _on_site(self, change):
         recs = self.session.receptors(self.site)
