@@ -14,7 +14,7 @@ import html
 import ipywidgets as widgets
 import pandas as pd
 
-from .figure_open import page
+from .figure_open import PAGE_FIGURE_WIDTH, page
 from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh)
@@ -142,7 +142,9 @@ class SobolExplorer(SavedText, widgets.VBox):
         tor = self.tornado if len(self.tornado) else pd.DataFrame(
             columns=cols + ["low", "high", "base", "output_low", "output_high", "output_base",
                             "unit", "note"])
-        return sensitivity_figure(sob, tor, site, receptor, self.year_w.value, el, quantity)
+        # a width of its own: beside an open file browser plotly drew it at 700 px
+        return sensitivity_figure(sob, tor, site, receptor, self.year_w.value, el,
+                                  quantity).update_layout(width=PAGE_FIGURE_WIDTH)
 
     def _draw(self):
         refresh(self.fig, self._figure())

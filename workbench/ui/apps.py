@@ -19,7 +19,7 @@ from .assumptions import ASSUMPTIONS, Settings
 from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, make_control,
                        open_with_progress, refresh, set_quietly, table_html, wrap_labels_style)
-from .figure_open import page
+from .figure_open import NARROW_OUTPUT_PX, PAGE_FIGURE_WIDTH, page  # noqa: F401
 from .scheme_tab import SchemeTab
 from .session import Session, output_dir
 from .palette import TEMPLATE
@@ -34,10 +34,9 @@ LAZY_TABS = ("gas schemes",)
 #: Titles of the velocity tabs when no velocities were computed.
 NO_VELOCITIES = {"deposition velocity": "no deposition velocities (fixed or no met)",
                  "resistances": "no resistances (fixed velocities or no met)"}
-#: Output area of a notebook in a 1,000 px browser window beside JupyterLab's open
-#: file browser [px] (measured in chromium, JupyterLab 4.6): the narrowest area the
-#: explorer is made to fit.
-NARROW_OUTPUT_PX = 568
+# NARROW_OUTPUT_PX, the output area beside JupyterLab's open file browser [px], the
+# narrowest area the explorer is made to fit: defined in figure_open beside
+# PAGE_FIGURE_WIDTH (the other apps' figures) and imported above.
 #: What a tab's border and padding take of that width [px] (measured likewise).
 TAB_PADDING_PX = 36
 #: Width of the explorer's figures [px]: they fit a tab in the narrowest output area.
@@ -415,16 +414,28 @@ class SiteExplorer(SavedText, widgets.VBox):
     def _on_control(self, change):
         key = next(k for k, w in self.controls.items() if w is change["owner"])
         a = ASSUMPTIONS[key]
+        old, before = a.get(self.settings, self.site), self.settings
         self.settings = a.set(self.settings, self.site, change["new"])
         self.recompute("recomputing deposition velocities (a few seconds)" if a.stage == "dry"
                        else f"recomputing ({a.stage} stage)")
         if self._before is not None and self._before["value"].equals(self._totals["value"]):
             site = self.session.study.catalogue()[self.site]
-            self.change_w.value += html.escape(" — " + no_effect_text(
+            text = no_effect_text(
                 key, a.label, component_rates(self.result.years, self.site,
                                               self.receptor_w.value),
                 site.collector, self.settings.budget.bulk_correction,
-                self.settings.budget.pair_split, self.settings.budget.sulfate_basis))
+                self.settings.budget.pair_split, self.settings.budget.sulfate_basis)
+            if key == "dry.wetness_rule" and text.endswith("."):
+                # "met" without a surface_wet column is "inferred": say so (the line
+                # gave no reason and the control read as broken)
+                from .no_effect import wetness_rule_reason
+                met_run = (self.result if change["new"] == "met" else   # the run under "met"
+                           self.session.run(before, self.site, *self.years, "year",
+                                            self.receptor_w.value))
+                why = wetness_rule_reason(met_run.velocities, self.site,
+                                          self.receptor_w.value, old, change["new"])
+                text = f"{text[:-1]} ({why})." if why else text
+            self.change_w.value += html.escape(" — " + text)
 
     def _on_site(self, change):
         recs = self.session.receptors(self.site)

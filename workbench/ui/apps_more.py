@@ -11,7 +11,7 @@ from ..ranking import EVERY_COMPONENT
 from . import figures
 from .assumptions import ASSUMPTIONS, Settings
 from .controls import fit_options_width
-from .figure_open import page
+from .figure_open import PAGE_FIGURE_WIDTH, page
 from .controls import (Progress, SavedText, caution_box, figure_widget, open_with_progress,
                        refresh, table_html, wrap_labels_style)
 from .session import Session
@@ -91,7 +91,9 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         self.note_w = widgets.HTML("")
         self.table_w = widgets.HTML("")
         self.table = pd.DataFrame(columns=["value", "total", "rate", "status"])
-        self.fig = figure_widget(figures.sensitivity_curves(self.table, "", None, unit))
+        # a width of its own: beside an open file browser plotly drew it at 700 px
+        self.fig = figure_widget(figures.sensitivity_curves(self.table, "", None, unit)
+                                 .update_layout(width=PAGE_FIGURE_WIDTH))
         self.fig.add_class("wb-sensitivity")
         self._set_range()
         self.key_w.observe(lambda c: self._set_range(), "value")
@@ -187,7 +189,8 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         if len(title) > figures.TITLE_CHARS:     # the where and when on a line of their own
             title = (figures.wrap_text(f"Sensitivity of the totals to {a.label}",
                                        figures.TITLE_CHARS) + f"<br>{site} · {rec} · {span}")
-        fig.update_layout(title=title, margin=dict(t=figures.title_room(title)))
+        fig.update_layout(title=title, margin=dict(t=figures.title_room(title)),
+                          width=PAGE_FIGURE_WIDTH)
         if base is None:
             self.note_w.value = "Baseline: left to the model or the catalogue (dotted line)."
         else:
@@ -294,8 +297,7 @@ class NetworkOverview(SavedText, widgets.VBox):
                           input_rows_box(self.session.study.inputs.ledger),
                           widgets.HBox([self.unit_w, self.progress],
                                        layout=widgets.Layout(flex_flow="row wrap")),
-                          # plotly draws it at the area's width, or at 700 px where it
-                          # cannot tell (beside an open file browser): it scrolls then
+                          # PAGE_FIGURE_WIDTH wide; a narrower area scrolls it
                           page(self.figs["totals"]),
                           rankings, self.apart_w, self.analysis_w],
                          layout=widgets.Layout(width="100%"))
@@ -362,7 +364,8 @@ class NetworkOverview(SavedText, widgets.VBox):
         unit = self.unit_w.value
         t = self.table(unit)
         self.network = t
-        new = {"totals": figures.network_totals(t, unit)}
+        # a width of its own: beside an open file browser plotly drew it at 700 px
+        new = {"totals": figures.network_totals(t, unit, width=PAGE_FIGURE_WIDTH)}
         # the report's ranking (workbench.ranking): whole-span totals, the full ones
         # together, partial ones apart per missing set, the sites without a total last
         span = network_span(self.results.values(), self.session.study.inputs.catalogue)

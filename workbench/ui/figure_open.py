@@ -6,6 +6,17 @@ from __future__ import annotations
 import ipywidgets as widgets
 import plotly.graph_objects as go
 
+#: Output area of a notebook in a 1,000 px browser window beside JupyterLab's open
+#: file browser [px] (measured in chromium, JupyterLab 4.6): the narrowest area the
+#: apps are made to fit.
+NARROW_OUTPUT_PX = 568
+#: Width of a figure in a :func:`page` box outside a tab [px] (the network overview's
+#: annual totals, the sensitivity curves, the Sobol indices): the narrowest output area
+#: less the box's and the widgets' margins (the network's rankings, 540 px, drew whole
+#: there).  plotly 7.1 draws a FigureWidget without a width at its 700 px fallback
+#: where it cannot tell its box's width (seen in chromium beside an open file browser:
+#: the figure then scrolled inside its box), so these figures are given this width.
+PAGE_FIGURE_WIDTH = NARROW_OUTPUT_PX - 28
 #: Most seconds the old drawing stays beside a figure opened anew (:meth:`OpenedWhole.
 #: reopen`) when the new one never says it has drawn (a page closed meanwhile).
 SWAP_S = 60.0

@@ -421,7 +421,7 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
     return fig
 
 
-def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
+def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE, width=None):
     """Annual S and N totals of every site over the years.
 
     Filled markers are the years that enter the site's whole-span total, the one the
@@ -435,6 +435,11 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
     ----------
     table : pandas.DataFrame
         Output of :func:`workbench.ui.summaries.network_table`.
+    width : int, optional
+        Width of the figure [px] (the network overview's
+        :data:`~workbench.ui.figure_open.PAGE_FIGURE_WIDTH`); the years are then thinned
+        to fit a panel of that width.  None: no width (plotly's choice), the years
+        thinned for an output area of :data:`NOTEBOOK_PX`.
 
     Returns
     -------
@@ -488,6 +493,11 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE):
                       template=template, legend_title="site",
                       height=legend_height(len(sites) + 1, TOTALS_HEIGHT) if many
                       else TOTALS_HEIGHT)
+    if width is not None:
+        # the years that fit a panel of this width (at the 700 px plotly fell back to,
+        # or at NOTEBOOK_PX, more years were named than a 540 px figure holds)
+        fig.update_layout(width=width)
+        fig.update_xaxes(**year_ticks(table["period"], totals_plot_px(fig, width)))
     if many:
         # one legend group per site: plotly's 10 px gap between groups made 30 entries
         # half as tall again as the room for them (a scroll bar after 22 sites)

@@ -238,3 +238,34 @@ def idle_factors_text(tornado: pd.DataFrame, components: pd.DataFrame) -> str:
     parts = [", ".join(fs) + (f" ({why})" if why else "") for why, fs in by_reason.items()]
     return ("No effect on any total of this site and these years (index 0, no bar): "
             + "; ".join(parts) + ".")
+
+
+#: The two wetness rules that agree where the met file gives no ``surface_wet``
+#: (:func:`workbench.drydep.wetness.wetness`: "met" then infers it).
+SAME_WITHOUT_MET_WETNESS = {"met", "inferred"}
+
+
+def wetness_rule_reason(velocities, site, receptor, old, new) -> str:
+    """Why moving the surface wetness rule between "met" and "inferred" changed nothing:
+    no hour of the site's met gives ``surface_wet`` (``wetness_source`` never 0, "met
+    file"), so "met" infers the wetness as "inferred" does.  Empty otherwise.
+
+    Parameters
+    ----------
+    velocities : xarray.Dataset or None
+        The velocities of the run under the "met" rule, with ``wetness_source`` (codes of
+        :data:`workbench.drydep.wetness.SOURCE`) on (site, receptor, time).
+    site, receptor : str
+    old, new : str
+        The rules before and after the change.
+    """
+    if {old, new} != SAME_WITHOUT_MET_WETNESS or velocities is None \
+            or "wetness_source" not in velocities:
+        return ""
+    src = velocities["wetness_source"]
+    sel = {d: v for d, v in (("site", site), ("receptor", receptor)) if d in src.dims}
+    src = src.sel(sel).values
+    if (src == 0).any():
+        return ""
+    return ("the met file gives no surface wetness (surface_wet) at this site, so the "
+            "met rule infers it as the inferred rule does")
