@@ -49,6 +49,11 @@ SCHEMA: dict = {
         "common_receptor": (str, None, "land-use class on which every site's annual totals "
                             "are also computed, side by side in common_surface.csv"),
     },
+    "trends": {
+        "serial_correction": (str, None, "'hamed_rao': the annual Mann-Kendall test also "
+                              "with the variance correction of Hamed and Rao (1998) for "
+                              "serially correlated years (extra columns of trends.csv)"),
+    },
 }
 
 #: Keys allowed in a [sites.<id>] table: per-site overrides of the catalogue.
@@ -338,6 +343,16 @@ def validate(raw: dict, path=None, text: str = "", require_inputs: bool = True,
                                 line=_line_of(lines, "compare", "common_receptor"),
                                 column="compare.common_receptor", value=common,
                                 expected="one of " + ", ".join(LAND_USE) + suggest(common, LAND_USE))
+    serial = data["trends"]["serial_correction"]
+    if serial is not None:
+        from .analysis.trends import SERIAL_CORRECTIONS
+        named = [c for c in SERIAL_CORRECTIONS if c is not None]
+        if serial not in named:
+            raise ScenarioError("unknown serial correction", file=path,
+                                line=_line_of(lines, "trends", "serial_correction"),
+                                column="trends.serial_correction", value=serial,
+                                expected="one of " + ", ".join(repr(c) for c in named)
+                                + " (or no key for the plain test)" + suggest(serial, named))
     objects = {}
     fixed = {}
     for section, cls in options.items():

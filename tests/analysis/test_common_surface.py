@@ -89,3 +89,36 @@ def test_scenario_key_is_checked_and_writes_the_table(analysis_scenario, tmp_pat
         written, _, _ = run_scenario(good, tmp_path / "out", quiet=True)
     t = pd.read_csv(written["common_surface.csv"])
     assert (t["receptor"] == "moorland").all() and {"ridge", "mere"} <= set(t["site"])
+
+
+def test_trends_serial_correction_key_is_checked_and_adds_the_columns(analysis_scenario,
+                                                                      tmp_path):
+    """`[trends] serial_correction = "hamed_rao"` reaches trends.csv (the Hamed and Rao
+    1998 columns, checked against pymannkendall in tests/analysis/test_trend_hamed_rao.py);
+    a misspelt value is one located message; without the key the columns are absent."""
+    from workbench.cli import run_scenario
+    from workbench.errors import ScenarioError
+    from workbench.scenario import load_scenario
+    text = analysis_scenario.read_text()
+    bad = analysis_scenario.with_name("trends_bad.toml")
+    bad.write_text(text + '\n[trends]\nserial_correction = "hamed-rao"\n')
+    with pytest.raises(ScenarioError, match="hamed_rao") as err:
+        load_scenario(bad)
+    assert "trends.serial_correction" in str(err.value) and "trends_bad.toml" in str(err.value)
+    good = analysis_scenario.with_name("trends_good.toml")
+    good.write_text(text + '\n[trends]\nserial_correction = "hamed_rao"\n')
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        written, _, _ = run_scenario(good, tmp_path / "out", quiet=True)
+    t = pd.read_csv(written["trends.csv"])
+    cols = ["hamed_rao_factor", "var_s_hamed_rao", "z_hamed_rao", "p_value_hamed_rao"]
+    assert set(cols) <= set(t.columns)
+    annual = t[t["series"] == "annual"]
+    assert len(annual) and t.loc[t["series"] != "annual", cols].isna().all().all()
+    # two years (2020-2021) per series: fewer than 3 values, no corrected test (the
+    # documented rule); the computation itself is checked in test_trend_hamed_rao.py
+    assert (annual["n_years"] < 3).all() and annual[cols].isna().all().all()
+    plain = pd.read_csv(run_scenario(analysis_scenario, tmp_path / "plain", quiet=True)[0]
+                        ["trends.csv"])
+    assert not set(cols) & set(plain.columns)
+    assert load_scenario(analysis_scenario).data["trends"]["serial_correction"] is None

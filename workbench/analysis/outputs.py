@@ -50,8 +50,10 @@ def write_analysis(result, study, scenario, out, atomic_write) -> dict:
     written["exceedance.csv"] = _csv(ex, out / "exceedance.csv", atomic_write)
     year_rows, month_rows = yearly_and_monthly_rows(result, study)
     from .trends import change_notes, detection_limit_notes, trend_table
+    serial = (scenario.data.get("trends", {}).get("serial_correction")
+              if scenario is not None and hasattr(scenario, "data") else None)
     tr = trend_table(year_rows, month_rows, detection_limit_notes(study.inputs),
-                     changes=change_notes(catalogue, study.inputs))
+                     changes=change_notes(catalogue, study.inputs), serial_correction=serial)
     written["trends.csv"] = _csv(tr, out / "trends.csv", atomic_write)
     from .handover import quality_table
     wet = yearly_wet(result, study)
