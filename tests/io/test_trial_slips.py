@@ -105,6 +105,18 @@ def test_no_value_words_get_a_hint_in_the_samples(tmp_path, cat, cell, hint):
     assert hint in msg and f"got '{cell}'" in msg, msg
 
 
+def test_a_censored_gauge_depth_says_what_to_write(tmp_path, cat):
+    # before: "censored value not allowed here: got '<0.2', expected a number" with no
+    # word of why a '<' is refused there or what to write instead
+    from tiny_inputs import PRECIP, located_error
+    from workbench.io import read_precipitation
+    column = next(c for c in PRECIP.splitlines()[0].split(",") if c.startswith("gauge_depth"))
+    msg = located_error(read_precipitation, _precip_cell(tmp_path, column, "<0.2"), cat)
+    assert f"line 2, column '{column}': censored value not allowed here" in msg, msg
+    assert "got '<0.2'" in msg and "read only in the chemistry columns" in msg, msg
+    assert "0 for a trace" in msg, msg
+
+
 @pytest.mark.parametrize("cell, hint", [
     ("n/d", "('n/d': no data? this column takes numbers only: leave the cell empty)"),
     ("NULL", "(a 'no value' mark? leave the cell empty, or write NA)"),

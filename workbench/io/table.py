@@ -25,6 +25,11 @@ from .readbytes import read_hashed
 
 _OFFSET = re.compile(r"[T ]\d\d.*(?:Z|[+-]\d\d(?::?\d\d)?)$")
 
+#: What to write where a '<limit' cell is not read (a depth, a volume, a met value): the
+#: limit form is kept only in the chemistry columns.
+CENSORED_ELSEWHERE = ("a number ('<limit' is read only in the chemistry columns: write "
+                      "the value itself, 0 for a trace, or leave the cell empty if unknown)")
+
 #: Timestamps outside [YEARS[0], YEARS[1]) are typing slips in the year (common practice).
 YEARS = (np.datetime64("1900-01-01", "ns"), np.datetime64("2100-01-01", "ns"))
 #: Cell texts read as a missing number by the met reader (kept as they were).
@@ -568,7 +573,7 @@ class RawTable:
                 if cens.any():
                     i = int(odd[np.flatnonzero(cens)[0]])
                     raise self.error("censored value not allowed here", row=i, column=name,
-                                     value=s.iloc[i], expected="a number")
+                                     value=s.iloc[i], expected=CENSORED_ELSEWHERE)
             if missing == "samples":
                 low = body.iloc[odd].str.lower()
                 is_missing = low.isin(SAMPLE_MISSING_TEXTS).to_numpy()
