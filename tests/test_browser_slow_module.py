@@ -26,8 +26,11 @@ TITLES = """(sel) => { const el = document.querySelector(sel);
 #: The budget plot: the first plot of the explorer (not by its class ``wb-budget``: a
 #: class added after the widget opened was a message lost with the others).
 BUDGET_PLOT = ".jp-OutputArea .widget-vbox > .js-plotly-plot"
-#: The open tab's plot (monthly fluxes when the explorer opens).
-TAB_PLOT = ".jp-OutputArea .widget-tab-contents > .js-plotly-plot:not(.lm-mod-hidden)"
+#: The open tab's plot (monthly fluxes when the explorer opens), in the box of its tab
+#: page (workbench.ui.figure_open.page: a reopened figure keeps its old drawing in that
+#: box until the new one has drawn; the wait below polls until the new titles show).
+TAB_PLOT = (".jp-OutputArea .widget-tab-contents > .widget-vbox:not(.lm-mod-hidden) "
+            "> .js-plotly-plot")
 
 
 def _wait_titles(page, tmp_path, sel, text, key="y"):
