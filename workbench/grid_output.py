@@ -25,6 +25,7 @@ from . import __version__
 from .grid import (DRY_SPECIES, default_block, make_periods, output_names, span_notes,
                    staged, store_grid)
 from .grid_io import GridError, block_catalogue, describe, open_grid, read_block
+from .io.metchecks import NIGHT_SUN_HINT
 from .landuse import LAND_USE
 from .runfolder import OutputError, RunFolder, os_error_message
 
@@ -145,9 +146,9 @@ def flag_reasons(grid, j: int, i: int) -> dict:
     out = {}
     for text in reasons:
         for part in str(text).split("; ") if text else ():
-            part = part.replace("check utc_offset_h and whether times label the start or "
-                                "the end of the hour", "check that the time coordinate is "
-                                "UTC and labels the end of the hour (or has time bounds)")
+            part = part.replace(NIGHT_SUN_HINT, "check that the time coordinate is UTC and "
+                                "labels the end of the hour (or has time bounds), and the "
+                                "grid's latitude and longitude")
             out[part] = out.get(part, 0) + 1
     return dict(sorted(out.items(), key=lambda kv: -kv[1]))
 

@@ -68,6 +68,12 @@ KMH_MEDIAN_MIN = 10.0
 MEDIAN_MIN_HOURS = 720
 
 
+#: What to check where the sun shines at night at many hours of a site (the grid's
+#: note words it for a time coordinate: :func:`workbench.grid_output`).
+NIGHT_SUN_HINT = ("check utc_offset_h, whether times label the start or the end of the "
+                  "hour, and the site's latitude and longitude")
+
+
 def range_text(name, lo, hi) -> str:
     """The hard range of a variable with its unit, in degC too for temperature [text].
 
@@ -408,9 +414,7 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
         bad = night & (values["solar_radiation"] > NIGHT_RADIATION_MAX)
         share = pd.Series(bad[night]).groupby(codes[night]).mean() if night.any() else pd.Series(dtype=float)
         systematic = np.isin(codes, share.index[share > NIGHT_SHARE_HINT].to_numpy())
-        flag(bad & systematic, "solar radiation at night at many hours: check utc_offset_h, "
-             "whether times label the start or the end of the hour, and the site's "
-             "latitude and longitude")
+        flag(bad & systematic, "solar radiation at night at many hours: " + NIGHT_SUN_HINT)
         flag(bad & ~systematic, "solar radiation above 25 W/m2 at night")
     return join_reasons(parts) if parts else np.full(n, "", object), values
 
