@@ -26,9 +26,11 @@ Our rules (choices, not from the paper):
 
 * only dry hours (``wet_kind`` 0): dew and rain keep the scheme's wet rules (Wesely:
   r_lu 100 s/m on dew, 50 s/m in rain; Zhang: its wet cuticle);
-* only where the scheme has a cuticular path (a finite dry cuticle: leaves present
-  in the scheme's view); water, bare land, urban, snow/ice and leafless hours keep
-  the scheme's infinite cuticle;
+* only over vegetated receptors (:data:`workbench.drydep.codeposition.VEGETATED`:
+  crops, grass, forests, moorland, wetland; the fit comes from a forest and a
+  heathland) and only where the scheme has a cuticular path there (a finite dry
+  cuticle: leaves in the scheme's view); water, bare land, urban, snow/ice and
+  leafless hours keep the scheme's cuticle (Zhang's urban class has one of its own);
 * R_w replaces the scheme's dry cuticle whole, its low-temperature rule included
   (Erisman's own is the frozen value below -1 degC); Zhang's snow on the leaves is
   still blended over it (a snow-covered leaf is not a cuticle);
@@ -50,9 +52,11 @@ and ozone, Atmos. Environ. 28, 2595-2607 (the R_w of SO2; from memory).
 from __future__ import annotations
 
 import numpy as np
+import xarray as xr
 
 from ..constants import ZERO_CELSIUS
-from ..surface._array import where
+from ..surface._array import is_xarray, where
+from .codeposition import VEGETATED
 
 #: Values of ``DryOptions.so2_cuticle``: the gas scheme's own dry cuticle of SO2, or
 #: the humidity-dependent R_w of Erisman et al. (1994).
@@ -74,7 +78,9 @@ PERCENT = 100.0
 def check_rule(rule: str) -> str:
     """`rule` when it is one of :data:`SO2_CUTICLES`, else a ValueError naming the option."""
     if rule not in SO2_CUTICLES:
-        raise ValueError(f"unknown so2_cuticle {rule!r}; use one of {SO2_CUTICLES}")
+        from ..errors import suggest
+        raise ValueError(f"unknown so2_cuticle {rule!r}; use one of "
+                         f"{', '.join(SO2_CUTICLES)}{suggest(rule, SO2_CUTICLES)}")
     return rule
 
 
@@ -114,7 +120,27 @@ def so2_external_leaf_resistance(relative_humidity, temperature):
     return where(np.isnan(rh) | np.isnan(temperature), np.nan, rw)
 
 
-def dry_cuticle(scheme_dry, relative_humidity, temperature, wet_kind):
+def vegetated(land_use, like=None, receptor_dim="receptor"):
+    """Receptors where the option may apply: our vegetated classes (bool).
+
+    Parameters
+    ----------
+    land_use : str or array_like of str
+        Our classes (an array of names broadcasting against the hourly arrays; a
+        sequence along `receptor_dim` when `like` is a DataArray).
+    like : array_like, optional
+        An hourly input; when it is an xarray object the result is a DataArray along
+        `receptor_dim`.
+    receptor_dim : str
+    """
+    names = np.asarray(land_use, dtype=object)
+    veg = np.isin(names.astype(str), VEGETATED) if names.size else np.zeros(names.shape, bool)
+    if is_xarray(like) and names.ndim == 1:
+        return xr.DataArray(veg, dims=receptor_dim)
+    return veg
+
+
+def dry_cuticle(scheme_dry, relative_humidity, temperature, wet_kind, vegetated=True):
     """The dry cuticle of SO2 under the option: R_w where it applies, else the scheme's.
 
     Parameters
@@ -128,13 +154,16 @@ def dry_cuticle(scheme_dry, relative_humidity, temperature, wet_kind):
         [K]
     wet_kind : array_like
         0 dry, 1 dew, 2 rain (NaN unknown). [-]
+    vegetated : array_like of bool
+        The receptors of our vegetated classes (:func:`vegetated`).
 
     Returns
     -------
     array_like
-        [s m-1]: :func:`so2_external_leaf_resistance` in dry hours where the scheme's
-        cuticle is finite; `scheme_dry` elsewhere (NaN stays NaN).
+        [s m-1]: :func:`so2_external_leaf_resistance` in dry hours over vegetated
+        receptors where the scheme's cuticle is finite; `scheme_dry` elsewhere (NaN
+        stays NaN).
     """
     rw = so2_external_leaf_resistance(relative_humidity, temperature)
-    use = (wet_kind == 0) & np.isfinite(scheme_dry)
+    use = (wet_kind == 0) & np.isfinite(scheme_dry) & vegetated
     return where(use, rw, scheme_dry)

@@ -602,7 +602,9 @@ def surface_resistances(gases, state) -> dict:
         rlu = where(wet, rlu_wet, rlu_dry) + cold
         rlu = rlu + nan_kind
         if gas == "SO2" and _erisman_cuticle(state):   # [dry] so2_cuticle option
-            rlu = erisman1994.dry_cuticle(rlu, state.relative_humidity, t, kind)
+            rlu = erisman1994.dry_cuticle(rlu, state.relative_humidity, t, kind,
+                                          erisman1994.vegetated(state.land_use, t,
+                                                                state.receptor_dim))
         rcl = _exposed(h, f0, g_cl) + cold
         rgs = _exposed(h, f0, g_gs) + cold
         g = _recip(rs + rm) + _recip(rlu) + _recip(rdc + rcl) + _recip(rac + rgs)

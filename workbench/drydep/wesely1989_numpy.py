@@ -89,8 +89,8 @@ def surface_resistances(gases, state) -> dict:
     rows = np.asarray(_rows(state.land_use))
     floor_on = getattr(state, "hno3_rc_floor", True)
     # the SO2 cuticle of Erisman et al. (1994) in dry hours ([dry] so2_cuticle)
-    humid = (np.asarray(state.relative_humidity, dtype=float),) if _w._erisman_cuticle(
-        state) else ()
+    humid = (np.asarray(state.relative_humidity, dtype=float),
+             erisman1994.vegetated(state.land_use)) if _w._erisman_cuticle(state) else ()
     per_gas = [(gas, h, f0, _gas_tables(gas, h, f0)) for gas, (h, f0) in species.items()]
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         cold = cold_increment(t)
@@ -120,7 +120,7 @@ def surface_resistances(gases, state) -> dict:
                 rlu = rlu_t.take(wet_cell)
                 rlu += cold
                 if gas == "SO2" and humid:
-                    rlu = erisman1994.dry_cuticle(rlu, humid[0], t, kind)
+                    rlu = erisman1994.dry_cuticle(rlu, humid[0], t, kind, humid[1])
                 g += _recip_array(rlu, out=work)
                 rcl = rcl_t.take(cell)
                 rcl += cold

@@ -462,7 +462,9 @@ def _reference_paths(state, tab):
     has_leaves = lai > 0
     rcut_gas_s = None
     if erisman1994.check_rule(getattr(state, "so2_cuticle", "scheme")) == "erisman1994":
-        own = erisman1994.dry_cuticle(rcut_s * cold, state.relative_humidity, t, kind)
+        own = erisman1994.dry_cuticle(rcut_s * cold, state.relative_humidity, t, kind,
+                                      erisman1994.vegetated(state.land_use, t,
+                                                            state.receptor_dim))
         rcut_gas_s = with_snow(own, rs_snow, where(has_leaves, leaf_snow, 0.0))
     rcut_s = with_snow(rcut_s * cold, rs_snow, where(has_leaves, leaf_snow, 0.0))
     rcut_o = with_snow(rcut_o * cold, SNOW_O3, where(has_leaves, leaf_snow, 0.0))
