@@ -248,3 +248,28 @@ def test_dataarray_and_dask_state_match_numpy(kind):
         want = scheme.surface_resistances(("SO2",), plain)["SO2"]["rc"]
         np.testing.assert_allclose(got.transpose("receptor", "time").values, want,
                                    rtol=1e-13)
+
+
+def test_the_so2_cuticle_table_of_the_document_is_the_codes():
+    """docs/methods_dry.md 9.6 shows the annual Vd(SO2) these runs give (regenerate with
+    `python docs/make_vd_table.py`); the default's column is the 9.2 table's SO2."""
+    import importlib.util
+    from pathlib import Path
+    path = Path(__file__).resolve().parents[2] / "docs" / "make_vd_table.py"
+    spec = importlib.util.spec_from_file_location("make_vd_table", path)
+    script = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(script)
+    table = script.so2_cuticle_means()
+    assert script.in_document(markers=script.CUTICLE_MARKERS) == script.so2_cuticle_tables(table)
+    base = script.in_document()                # 9.2: "| site receptor | SO2 W89 | SO2 Z03 |"
+    own = table[table.so2_cuticle == "scheme"]
+    lines = base.splitlines()
+    first = lines.index(next(x for x in lines if x.startswith("| site receptor")))
+    rows = [x for x in lines[first + 2:first + 2 + len(own) // 2]]
+    assert len(rows) == 10 and all(x.startswith("| ") for x in rows)
+    for line in rows:
+        cells = [c.strip() for c in line.strip("|").split("|")]
+        site, rec = cells[0].split()
+        for col, scheme in ((1, "wesely1989"), (2, "zhang2003")):
+            v = own[(own.site == site) & (own.receptor == rec) & (own.scheme == scheme)]
+            assert f"{float(v['vd_cm_s'].iloc[0]):.2f}" == cells[col], (site, rec, scheme)

@@ -244,8 +244,8 @@ class DryOptions:
     so2_cuticle : str
         Dry cuticular (external-leaf) resistance of SO2, either scheme: ``"scheme"``
         (default), the scheme's own (Wesely's r_lu, Zhang's dry R_cut);
-        ``"erisman1994"``, in dry hours where the scheme has a cuticle the
-        humidity-dependent R_w = 25000 exp(-0.0693 RH[%]) s/m below RH 81.3 % and
+        ``"erisman1994"``, in dry hours over vegetated receptors where the scheme has a
+        cuticle, the humidity-dependent R_w = 25000 exp(-0.0693 RH[%]) s/m below RH 81.3 % and
         0.58e12 exp(-0.278 RH[%]) above, 500 s/m below -1 degC (Erisman, van Pul and
         Wyers 1994, from memory; air RH), dew and rain keeping the scheme's wet rules;
         SO2 only.  With `so2_codeposition` the co-deposition relation wins where it
