@@ -141,10 +141,15 @@ def test_frozen_hour_takes_500_in_both_schemes():
     assert float(cut["cuticle"].ravel()[0]) == 500.0
 
 
-def test_numpy_path_equals_the_general_path_under_the_option():
+@pytest.mark.parametrize("block", [None, 500])
+def test_numpy_path_equals_the_general_path_under_the_option(block, monkeypatch):
     """wesely1989_numpy (what the engine runs on numpy) applies the option as the
-    general path does, on random hours of every class, wet and dry, mild and frozen."""
+    general path does, on random hours of every class, wet and dry, mild and frozen
+    (with `block`, in blocks of that many elements, as on large arrays)."""
     from workbench.drydep import wesely1989_numpy as fast
+    from workbench.surface import _array
+    if block:
+        monkeypatch.setattr(_array, "BLOCK_ELEMENTS", block)
     rng = np.random.default_rng(3)
     shape = (3, len(w.WESELY_CLASS), 400)
     land = np.array(list(w.WESELY_CLASS), dtype=object)[None, :, None]
