@@ -15,6 +15,11 @@ then :func:`workbench.comparison.annual_vd_by_year`; for each common-practice ra
 years met out of N and the span over the years of the group's smallest and largest
 annual mean, the fine-particle ranges, and the orderings HNO3 > pNO3 and SO2 > NO2
 over every surface.
+
+The text between the ``<!-- vd-so2-cuticle -->`` markers (section 9.6) is the annual
+Vd(SO2) of the demo year under both values of ``[dry] so2_cuticle`` and both schemes,
+default transfer (:func:`so2_cuticle_means`, :func:`workbench.comparison.annual_vd_table`),
+with the SO2 ranges met and missed.
 """
 from __future__ import annotations
 
@@ -299,8 +304,74 @@ def year_tables(yms) -> str:
     return "\n".join(lines)
 
 
+# --- the SO2 cuticle option (docs/methods_dry.md 9.6) -----------------------------------------
+#: Values of ``DryOptions.so2_cuticle`` compared, the default first.
+SO2_CUTICLES = ("scheme", "erisman1994")
+
+
+def so2_cuticle_means(study=None):
+    """Annual mean Vd(SO2) of the demo year [cm s-1] under each ``so2_cuticle`` value.
+
+    The means of :func:`workbench.comparison.annual_vd_table` on ``velocities(met,
+    surfaces, DryOptions(gas_scheme=s, particles=(), gases=("SO2",), components=False,
+    so2_cuticle=c))``, default transfer, every other option at its default.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns site, receptor, scheme, so2_cuticle, vd_cm_s (active receptors).
+    """
+    import pandas as pd
+    from workbench.comparison import annual_vd_table
+    from workbench.drydep import DryOptions, velocities
+    study = study or demo_study()
+    met = study.inputs.met.sel(time=slice(*YEAR))
+    surf = study.surfaces()
+    parts = []
+    for rule in SO2_CUTICLES:
+        by_scheme = {s: velocities(met, surf, DryOptions(
+            gas_scheme=s, particles=(), gases=("SO2",), components=False, so2_cuticle=rule))
+            for s in SCHEMES}
+        parts.append(annual_vd_table(by_scheme, gases=("SO2",)).assign(so2_cuticle=rule))
+    return pd.concat(parts, ignore_index=True)[["site", "receptor", "scheme", "so2_cuticle",
+                                                "vd_cm_s"]]
+
+
+def so2_cuticle_tables(table) -> str:
+    """The markdown between the markers of 9.6: annual Vd(SO2) by receptor under both
+    values of ``so2_cuticle`` and both schemes, and the SO2 ranges met and missed."""
+    cols = [(s, c) for s in SCHEMES for c in SO2_CUTICLES]
+
+    def value(site, receptor, scheme, rule):
+        row = table[(table.site == site) & (table.receptor == receptor)
+                    & (table.scheme == scheme) & (table.so2_cuticle == rule)]
+        return round(float(row["vd_cm_s"].iloc[0]), 2)
+    lines = [f"Annual mean Vd(SO2) [cm/s], demo year {YEAR[0][:4]}, `ustar_transfer = "
+             f"\"{TRANSFERS[0]}\"`,", "every other option at its default:", "",
+             "| site receptor | " + " | ".join(f"{SHORT[s]} {c}" for s, c in cols) + " |",
+             "|---|" + "---|" * len(cols)]
+    pairs = list(dict.fromkeys(zip(table.site, table.receptor)))
+    for site, rec in pairs:
+        lines.append(f"| {site} {rec} | " + " | ".join(
+            f"{value(site, rec, s, c):.2f}" for s, c in cols) + " |")
+    lines += ["", "| range [cm/s] | " + " | ".join(f"{SHORT[s]} {c}" for s, c in cols) + " |",
+              "|---|" + "---|" * len(cols)]
+    for gas, group, lo, hi in RANGES:
+        if gas != "SO2":
+            continue
+        cells = []
+        for s, c in cols:
+            vals = [value(site, rec, s, c) for site, rec in GROUPS[group]]
+            span = f"{min(vals):.2f}-{max(vals):.2f}"
+            inside = all(lo <= v <= hi for v in vals)
+            cells.append(f"met ({span})" if inside else f"**missed** ({span})")
+        lines.append(f"| SO2 {GROUP_NAMES[group]} {lo:g}-{hi:g} | " + " | ".join(cells) + " |")
+    return "\n".join(lines)
+
+
 MARKERS = ("<!-- vd-table -->", "<!-- /vd-table -->")
 YEAR_MARKERS = ("<!-- vd-years -->", "<!-- /vd-years -->")
+CUTICLE_MARKERS = ("<!-- vd-so2-cuticle -->", "<!-- /vd-so2-cuticle -->")
 
 
 def in_document(text=None, markers=MARKERS) -> str:
@@ -325,6 +396,7 @@ def main():
     means, active = demo_means(study=study)
     text = _replace(DOC.read_text(), MARKERS, tables(means, active))
     text = _replace(text, YEAR_MARKERS, year_tables(year_means(study)), after=MARKERS[1])
+    text = _replace(text, CUTICLE_MARKERS, so2_cuticle_tables(so2_cuticle_means(study)))
     DOC.write_text(text)
 
 

@@ -12,6 +12,7 @@ from workbench import graph as G
 from workbench.budget import BudgetOptions
 from workbench.drydep import DryOptions
 from workbench.drydep.gas import SCHEMES
+from workbench.drydep.erisman1994 import SO2_CUTICLES
 from workbench.drydep.nh3_bidirectional import CUTICLE_RULES
 from workbench.drydep.options import USTAR_TRANSFERS, WETNESS_RULES
 from workbench.drydep.seasons import SEASON_RULES
@@ -31,7 +32,7 @@ CHOICES = {"wet": dict(wet_options_module._CHOICES), "budget": dict(BudgetOption
                    "dew_rule": DEW_RULES, "season_rule": SEASON_RULES,
                    "ustar_transfer": USTAR_TRANSFERS,
                    "nh3_treatment": ("deposition_only", "bidirectional"),
-                   "nh3_cuticle": CUTICLE_RULES}}
+                   "nh3_cuticle": CUTICLE_RULES, "so2_cuticle": SO2_CUTICLES}}
 
 
 def _explicit(base):

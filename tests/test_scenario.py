@@ -118,6 +118,11 @@ BAD_SCENARIOS = {
     "fixed_vd_too_large": ("[dry.fixed_velocity]\nSO2 = 50\n",
                            "line 4, column 'dry.fixed_velocity.SO2': out of range: got '50', "
                            "expected a deposition velocity of 0 to 10 cm/s"),
+    # [dry] so2_cuticle: a misspelt value is one located message with the nearest choice
+    "so2_cuticle_misspelt": ("[dry]\nso2_cuticle = \"erisman94\"\n",
+                             "line 4, column 'dry.so2_cuticle': invalid value (unknown "
+                             "so2_cuticle 'erisman94'; use one of scheme, erisman1994 (did "
+                             "you mean 'erisman1994'?))"),
     "fixed_vd_negative": ("[dry.fixed_velocity]\nSO2 = -0.5\n",
                           "line 4, column 'dry.fixed_velocity.SO2': out of range: got '-0.5'"),
 }

@@ -173,6 +173,10 @@ DRY = {
                                 "asked"),
     "sampler_coarse_fraction": ("our choice", "empty: the site's `coarse_fraction` or the "
                                 "coastal/inland rule"),
+    "so2_cuticle": ("our choice", "the scheme's own dry SO2 cuticle: Erisman et al. "
+                    "(1994)'s R_w (from memory) lifts the forests into 0.5-1.5 cm/s but "
+                    "the grass of the humid demo uplands above 0.8 cm/s "
+                    "(docs/methods_dry.md section 9.6)"),
 }
 
 BUDGET = {

@@ -41,6 +41,7 @@ VELOCITY_OPTIONS = ("gas_scheme", "gases", "particles", "wetness_rule", "dew_rul
                     "nh3_treatment", "nh3_emission_potential", "nh3_acid_ratio",
                     "hno3_rc_floor", "rc_scale", "components", "so2_codeposition",
                     "nh3_cuticle", "nh3_acid_ratio_from_air", "sampler_coarse_fraction",
+                    "so2_cuticle",
                     "ustar_transfer_receptor")
 #: Budget options of the assembly: completeness, status, bulk collectors and basis, and
 #: every other one for its provenance attribute (it runs on the dry rows that read them).

@@ -119,7 +119,7 @@ _STATE_OPTIONS = ("seasonal_category", "wetness_rule", "season_rule", "dew_rule"
 #: The gases (Rb, Rc and its paths, Vd; the bidirectional NH3 model).
 _GAS_OPTIONS = ("gas_scheme", "gases", "nh3_treatment", "hno3_rc_floor",
                 "nh3_emission_potential", "nh3_acid_ratio", "rc_scale", "so2_codeposition",
-                "nh3_cuticle", "nh3_acid_ratio_from_air")
+                "nh3_cuticle", "nh3_acid_ratio_from_air", "so2_cuticle")
 #: One particle mode (the mode itself is a parameter).
 _PARTICLE_OPTIONS = ("size_nodes",)
 _graph.declare("micromet", {"dry": _MICROMET_OPTIONS}, freeze=True,
@@ -322,7 +322,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             relative_humidity=rh, cos_zenith=(_canopy.cos_zenith(block["time"].values, site)
                                               if "cos_zenith" in reads else None),
             snow_cover=snow, hno3_rc_floor=opt.hno3_rc_floor,
-            nh3_so2_ratio=st("nh3_so2_ratio") if opt.so2_codeposition else None)
+            nh3_so2_ratio=st("nh3_so2_ratio") if opt.so2_codeposition else None,
+            so2_cuticle=opt.so2_cuticle)
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
             comps = _gas.surface_resistances(scheme, opt.gases, state)
             acid = opt.nh3_acid_ratio
@@ -654,6 +655,7 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
                 "nh3": NH3_NOTE, "wetness_rule": opt.wetness_rule,
                 "nh3_cuticle": _nh3.resolve_cuticle(opt.nh3_cuticle,
                                                     _gas.get_scheme(opt.gas_scheme)),
+                "so2_cuticle": opt.so2_cuticle,
                 "ustar_floor_m_s": opt.ustar_floor, "ra_cap_s_m": opt.ra_cap,
                 "blending_height_m": opt.blending_height,
                 "time_convention": "end of each hour, UTC"}

@@ -88,6 +88,9 @@ class CanopyState:
     nh3_so2_ratio : array_like or None
         Molar ratio NH3/SO2 of the air in each hour (NaN unknown) for the SO2-NH3
         co-deposition option; None: off (:mod:`workbench.drydep.codeposition`). [1]
+    so2_cuticle : str
+        Dry cuticle of SO2: ``"scheme"`` (the scheme's own) or ``"erisman1994"`` (the
+        humidity-dependent R_w of :mod:`workbench.drydep.erisman1994` in dry hours).
     """
 
     land_use: tuple
@@ -104,6 +107,7 @@ class CanopyState:
     snow_cover: object = None
     hno3_rc_floor: bool = True
     nh3_so2_ratio: object = None
+    so2_cuticle: str = "scheme"
 
 
 #: Least Rc of HNO3, max(10, -2 T[degC]) [s m-1], [s m-1 K-1]: Erisman, van Pul and
@@ -162,7 +166,7 @@ def surface_resistances(scheme, gases, state) -> dict:
 def _plain_numpy(state) -> bool:
     """True when no array of `state` is an xarray object or a dask (chunked) array."""
     arrays = [getattr(state, f.name) for f in fields(state) if f.name not in (
-        "land_use", "receptor_dim", "hno3_rc_floor")]
+        "land_use", "receptor_dim", "hno3_rc_floor", "so2_cuticle")]
     return not any(isinstance(a, (xr.DataArray, xr.Dataset)) or hasattr(a, "chunks")
                    for a in arrays)
 

@@ -241,6 +241,15 @@ class DryOptions:
         al. 2012 after Fowler et al. 2001; Erisman et al. 1994 for the process; from
         memory), either scheme; hours without both concentrations keep the scheme's
         Rc.  Off by default (:mod:`workbench.drydep.codeposition`).
+    so2_cuticle : str
+        Dry cuticular (external-leaf) resistance of SO2, either scheme: ``"scheme"``
+        (default), the scheme's own (Wesely's r_lu, Zhang's dry R_cut);
+        ``"erisman1994"``, in dry hours over vegetated receptors where the scheme has a
+        cuticle, the humidity-dependent R_w = 25000 exp(-0.0693 RH[%]) s/m below RH 81.3 % and
+        0.58e12 exp(-0.278 RH[%]) above, 500 s/m below -1 degC (Erisman, van Pul and
+        Wyers 1994, from memory; air RH), dew and rain keeping the scheme's wet rules;
+        SO2 only.  With `so2_codeposition` the co-deposition relation wins where it
+        applies (:mod:`workbench.drydep.erisman1994`; docs/methods_dry.md section 9.6).
     sampler_coarse_fraction : dict
         ``{"<site>/<sampler_id>": {species: coarse fraction 0-1}}``: the coarse mass
         fraction of a particle species measured by that sampler (e.g. a PM10 inlet
@@ -280,6 +289,7 @@ class DryOptions:
     so2_codeposition: bool = False
     nh3_acid_ratio_from_air: bool = False
     sampler_coarse_fraction: dict = field(default_factory=dict)
+    so2_cuticle: str = "scheme"
 
     def __post_init__(self):
         if self.wetness_rule not in WETNESS_RULES:
@@ -322,6 +332,8 @@ class DryOptions:
         if self.nh3_cuticle not in CUTICLE_RULES:
             raise ValueError(f"unknown nh3_cuticle {self.nh3_cuticle!r}; use one of "
                              f"{CUTICLE_RULES}")
+        from .erisman1994 import check_rule
+        check_rule(self.so2_cuticle)
         if not self.nh3_acid_ratio > 0:
             raise ValueError("nh3_acid_ratio must be > 0")
         from ..species import AIR_GASES

@@ -30,6 +30,7 @@ from ..constants import ZERO_CELSIUS
 from ..species import get as _species
 from ..surface._array import is_xarray, where
 from . import codeposition
+from . import erisman1994
 from .gas import HNO3_RC_COLD_SLOPE, HNO3_RC_FLOOR, nitric_acid_floor  # noqa: F401
 
 NAME = "wesely1989"
@@ -50,7 +51,8 @@ NH3_CUTICLE = "humidity"
 #: The same equations arranged for numpy input (see :mod:`workbench.drydep.gas`).
 NUMPY_PATH = "workbench.drydep.wesely1989_numpy"
 #: Optional fields of the canopy state read (no LAI, no solar zenith angle).
-READS = ("terrain_slope", "hno3_rc_floor", "nh3_so2_ratio", "relative_humidity")
+READS = ("terrain_slope", "hno3_rc_floor", "nh3_so2_ratio", "relative_humidity",
+         "so2_cuticle")
 
 _X = np.inf  # Wesely's 9999: the path does not exist
 #: Wesely's land-use types (Table 1 columns): 1 urban, 2 agricultural, 3 range,
@@ -538,6 +540,16 @@ def surface_resistance(gas: str, state) -> dict:
     return surface_resistances((gas,), state)[gas]
 
 
+def _erisman_cuticle(state) -> bool:
+    """True when `state` asks for the SO2 cuticle of Erisman et al. (1994)
+    (:mod:`workbench.drydep.erisman1994`)."""
+    rule = erisman1994.check_rule(getattr(state, "so2_cuticle", "scheme"))
+    if rule == "erisman1994" and state.relative_humidity is None:
+        raise ValueError("so2_cuticle = 'erisman1994' needs relative_humidity in the "
+                         "CanopyState")
+    return rule == "erisman1994"
+
+
 def henry_and_reactivity(gases) -> dict:
     """H* [M atm-1] and f0 [-] of each gas from the species table (an error if missing)."""
     species = {}
@@ -589,6 +601,10 @@ def surface_resistances(gases, state) -> dict:
         rlu_wet = _wet_upper_canopy(gas, h, f0, cuticle)
         rlu = where(wet, rlu_wet, rlu_dry) + cold
         rlu = rlu + nan_kind
+        if gas == "SO2" and _erisman_cuticle(state):   # [dry] so2_cuticle option
+            rlu = erisman1994.dry_cuticle(rlu, state.relative_humidity, t, kind,
+                                          erisman1994.vegetated(state.land_use, t,
+                                                                state.receptor_dim))
         rcl = _exposed(h, f0, g_cl) + cold
         rgs = _exposed(h, f0, g_gs) + cold
         g = _recip(rs + rm) + _recip(rlu) + _recip(rdc + rcl) + _recip(rac + rgs)

@@ -30,6 +30,7 @@ from ..surface._array import blockwise, where
 from .gas import nitric_acid_floor
 from .wesely1989 import surface_resistances as _general
 from . import codeposition
+from . import erisman1994
 from . import wesely1989 as _w
 from .wesely1989 import (N_CATEGORIES, TABLE, _exposed, _exposed_conductances, _recip_array,
                          _rows, _wet_cuticle, _wet_upper_canopy, cold_increment,
@@ -87,13 +88,16 @@ def surface_resistances(gases, state) -> dict:
     col = np.where(valid, col % N_CATEGORIES, N_CATEGORIES)
     rows = np.asarray(_rows(state.land_use))
     floor_on = getattr(state, "hno3_rc_floor", True)
+    # the SO2 cuticle of Erisman et al. (1994) in dry hours ([dry] so2_cuticle)
+    humid = (np.asarray(state.relative_humidity, dtype=float),
+             erisman1994.vegetated(state.land_use)) if _w._erisman_cuticle(state) else ()
     per_gas = [(gas, h, f0, _gas_tables(gas, h, f0)) for gas, (h, f0) in species.items()]
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         cold = cold_increment(t)
         light_temp = stomatal_resistance(1.0, sun, t)  # r_s / r_i (inf: closed; NaN)
         rdc = convection_resistance(sun, state.terrain_slope)
 
-        def cells(rows, col, kind, t, sun, cat, cold, light_temp, rdc):
+        def cells(rows, col, kind, t, sun, cat, cold, light_temp, rdc, *humid):
             # every hourly path of every gas for one block (element-wise)
             cell = rows * (N_CATEGORIES + 1) + col  # (type, category)
             shape = np.broadcast_shapes(cell.shape, kind.shape, t.shape, sun.shape, cat.shape)
@@ -115,6 +119,8 @@ def surface_resistances(gases, state) -> dict:
                 g = _recip_array(g, out=g)
                 rlu = rlu_t.take(wet_cell)
                 rlu += cold
+                if gas == "SO2" and humid:
+                    rlu = erisman1994.dry_cuticle(rlu, humid[0], t, kind, humid[1])
                 g += _recip_array(rlu, out=work)
                 rcl = rcl_t.take(cell)
                 rcl += cold
@@ -132,7 +138,7 @@ def surface_resistances(gases, state) -> dict:
                 out += [rc, rs, rlu, rcl, rgs, floor_used]
             return tuple(out)
 
-        parts = blockwise(cells, rows, col, kind, t, sun, cat, cold, light_temp, rdc)
+        parts = blockwise(cells, rows, col, kind, t, sun, cat, cold, light_temp, rdc, *humid)
     out = {}
     for k, (gas, h, f0, _) in enumerate(per_gas):
         rc, rs, rlu, rcl, rgs, floor_used = parts[1 + 6 * k: 7 + 6 * k]

@@ -33,6 +33,7 @@ from ..species import get as _species
 from ..surface._array import is_xarray, where
 from ..surface.air import saturation_vapour_pressure
 from . import codeposition
+from . import erisman1994
 from .gas import nitric_acid_floor
 
 NAME = "zhang2003"
@@ -434,7 +435,13 @@ def with_snow(r, r_snow, fraction):
 
 
 def _reference_paths(state, tab):
-    """Cuticle and ground resistances of SO2 and O3, with wetness, cold and snow [s m-1]."""
+    """Cuticle and ground resistances of SO2 and O3, with wetness, cold and snow [s m-1].
+
+    Returns R_cut(SO2), R_cut(O3), R_g(SO2), R_g(O3) and the cuticle of the gas SO2
+    itself: R_cut(SO2) again, or, under ``so2_cuticle = "erisman1994"``, the dry
+    cuticle replaced by R_w of :mod:`workbench.drydep.erisman1994` (the first stays
+    the scheme's, for the gases scaled from it).
+    """
     t, kind, us, lai = state.temperature, state.wet_kind, state.ustar, state.lai
     dew, wet = kind == 1, kind > 0
     snow = 0.0 if state.snow_cover is None else where(np.isnan(state.snow_cover), 0.0,
@@ -453,11 +460,17 @@ def _reference_paths(state, tab):
     rg_s = where(wet, np.minimum(tab["rgd_so2"], rg_wet), tab["rgd_so2"])
     rg_o = tab["rgd_o3"] + 0.0 * t
     has_leaves = lai > 0
+    rcut_gas_s = None
+    if erisman1994.check_rule(getattr(state, "so2_cuticle", "scheme")) == "erisman1994":
+        own = erisman1994.dry_cuticle(rcut_s * cold, state.relative_humidity, t, kind,
+                                      erisman1994.vegetated(state.land_use, t,
+                                                            state.receptor_dim))
+        rcut_gas_s = with_snow(own, rs_snow, where(has_leaves, leaf_snow, 0.0))
     rcut_s = with_snow(rcut_s * cold, rs_snow, where(has_leaves, leaf_snow, 0.0))
     rcut_o = with_snow(rcut_o * cold, SNOW_O3, where(has_leaves, leaf_snow, 0.0))
     rg_s = with_snow(rg_s * cold, rs_snow, snow)
     rg_o = with_snow(rg_o * cold, SNOW_O3, snow)
-    return rcut_s, rcut_o, rg_s, rg_o
+    return rcut_s, rcut_o, rg_s, rg_o, (rcut_s if rcut_gas_s is None else rcut_gas_s)
 
 
 def scaled(alpha, beta, r_so2, r_o3):
@@ -497,7 +510,7 @@ def surface_resistances(gases, state) -> dict:
     rst_w = stomatal_resistance(state, tab)
     wst = stomatal_blocking(state.solar_radiation, state.wet_kind)
     rac = canopy_transfer_resistance(state.lai, state.ustar, tab)
-    rcut_s, rcut_o, rg_s, rg_o = _reference_paths(state, tab)
+    rcut_s, rcut_o, rg_s, rg_o, rcut_so2 = _reference_paths(state, tab)
     bad = (np.isnan(state.temperature) | np.isnan(state.solar_radiation)
            | np.isnan(state.wet_kind) | np.isnan(state.ustar) | np.isnan(state.lai)
            | np.isnan(state.relative_humidity))
@@ -509,7 +522,7 @@ def surface_resistances(gases, state) -> dict:
         ratio = _species("H2O").diffusivity_0 / _species(gas).diffusivity_0
         rst = rst_w * ratio
         rm = MESOPHYLL[gas] + zero
-        rcut = scaled(alpha, beta, rcut_s, rcut_o)
+        rcut = scaled(alpha, beta, rcut_so2 if gas == "SO2" else rcut_s, rcut_o)
         rg = scaled(alpha, beta, rg_s, rg_o)
         g = (1.0 - wst) * _recip(rst + rm) + _recip(rac + rg) + _recip(rcut)
         rc = _recip(g)
