@@ -71,8 +71,12 @@ class DryPieces:
     #: row's deposition part C vd_NH3_bidirectional and its emission part of the net
     #: exchange (``rows["nh3_exchange"]``), so that ``(exchange - emission).sum(0)`` is
     #: the budget's net NH3; the Monte Carlo draws the concentration errors on the
-    #: deposition part alone (:func:`workbench.analysis.uncertainty.nh3_net_draws`).
-    #: None: deposition only (or an exchange the rows cannot be matched to).
+    #: deposition part alone and the Gamma_s factor on the emission part alone
+    #: (:func:`workbench.analysis.uncertainty.nh3_net_draws`).  Under ``pair_split =
+    #: "all_gas"`` a moved pNH4 row holds its deposition part at the exchange's Vd and
+    #: no emission; under ``"all_particle"`` the NH3 samples' rows hold the emission
+    #: alone (``contrib`` and ``exchange`` 0: the net is -E).  None: deposition only
+    #: (or an exchange the rows cannot be matched to).
     exchange: np.ndarray | None = None
     emission: np.ndarray | None = None
 
