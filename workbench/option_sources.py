@@ -241,6 +241,11 @@ UNCERTAINTY = {
                                     "site rise and fall together (the funnel's exposure), "
                                     "ammonium's less so (NH3 gained, NH4 lost in the "
                                     "standing sample)"),
+    "nh3_gamma_gsd": ("our choice", "3.0, from memory of the scatter of measured stomatal "
+                      "emission potentials about their relation with the nitrogen input "
+                      "in the review of Massad et al. (2010), Atmos. Chem. Phys. 10, "
+                      "10359-10386: about a factor of 3 either way within one kind of "
+                      "surface (the classes themselves span tens to thousands)"),
 }
 
 SENSITIVITY = {

@@ -345,10 +345,10 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
                       "the totals of every site, receptor and period") if network else pivot)
     parts.extend(_schemes_html(all_schemes, network))
     parts.extend(_nh3_html(result, network))
-    from .analysis.uncertainty import bulk_state, report_section
+    from .analysis.uncertainty import bulk_state, nh3_gamma_state, report_section
     parts.extend(report_section(t, _table_html,
                                 getattr(result.options.get("uncertainty"), "options", None),
-                                bulk_state(result)))
+                                bulk_state(result), nh3_gamma_state(result)))
     parts.append("<h2>Dry nitrogen: the gas/particle bracket [kg N/ha per period]</h2>")
     parts.append("<p>Ammonium nitrate on filters shifts mass between HNO3 and pNO3 and between "
                  "NH3 and pNH4; HNO3 deposits far faster than pNO3. The bracket puts each pair "

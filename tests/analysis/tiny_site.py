@@ -34,7 +34,7 @@ VD = {"SO2": 0.6, "pSO4": 0.2, "HNO3": 2.5}   # cm/s, fixed
 OFF = dict(vd_gsd={sp: 1.0 for sp in U.DEFAULT_VD_GSD}, air_rel_sd=0.0, precip_conc_rel_sd=0.0,
            gauge_catch_rel_sd=0.0, depth_rel_sd=0.0, censored_rel_sd=0.0, vd_fill_rel_sd=0.0,
            pwm_fill_rel_sd=0.0, lab_bias_precip_rel_sd=0.0, lab_bias_air_rel_sd=0.0, vd_site_gsd=1.0,
-           lab_bias_filter_pack=False, bulk_factor_rel_sd=0.0)
+           lab_bias_filter_pack=False, bulk_factor_rel_sd=0.0, nh3_gamma_gsd=1.0)
 
 
 def make_tiny(d):

@@ -71,8 +71,12 @@ class DryPieces:
     #: row's deposition part C vd_NH3_bidirectional and its emission part of the net
     #: exchange (``rows["nh3_exchange"]``), so that ``(exchange - emission).sum(0)`` is
     #: the budget's net NH3; the Monte Carlo draws the concentration errors on the
-    #: deposition part alone (:func:`workbench.analysis.uncertainty.nh3_net_draws`).
-    #: None: deposition only (or an exchange the rows cannot be matched to).
+    #: deposition part alone and the Gamma_s factor on the emission part alone
+    #: (:func:`workbench.analysis.uncertainty.nh3_net_draws`).  Under ``pair_split =
+    #: "all_gas"`` a moved pNH4 row holds its deposition part at the exchange's Vd and
+    #: no emission; under ``"all_particle"`` the NH3 samples' rows hold the emission
+    #: alone (``contrib`` and ``exchange`` 0: the net is -E).  None: deposition only
+    #: (or an exchange the rows cannot be matched to).
     exchange: np.ndarray | None = None
     emission: np.ndarray | None = None
 
@@ -236,26 +240,64 @@ def _exchange_rows(rows, parts, axes, times, n_sites):
     """Each NH3 row's deposition and emission parts of the bidirectional exchange, or None.
 
     Returns ``(deposition, emission)``, each (n, P, R) [mol m-2] in the order of the
-    NH3 component's rows, where the exchange's rows are those rows (the NH3 component
-    from its own samples alone, none moved in or out by ``pair_split``); None otherwise
-    (the draws then scale the net as a whole, as before).
+    rows of the NH3 component (`parts`, :func:`workbench.drypairs.component_rows`):
+    an NH3 row holds C vd_NH3_bidirectional and its emission; under ``pair_split =
+    "all_gas"`` (pNH4 moved into the NH3 exchange, ``rows["nh3_exchange"]["moved"]``)
+    a pNH4 row holds its C vd_NH3_bidirectional (as mol of NH3) and no emission, as
+    :func:`workbench.drycomponents.dry_components` sums the net.  None where the
+    exchange's rows cannot be matched to the component's (the draws then scale the
+    net as a whole).
     """
     from ..dryflux import share_to_periods
     ex = rows.get("nh3_exchange")
-    if ex is None or "moved" in ex or len(parts) != 1 or parts[0][0] != "NH3" or parts[0][2] != 1:
+    if ex is None or not parts:
         return None
-    r, d, e = parts[0][1], ex["deposition"], ex["emission"]
-    if not all(len(x["a"]) == len(r["a"]) and np.array_equal(x["site_index"], r["site_index"])
-               and np.array_equal(x["a"], r["a"]) and np.array_equal(x["b"], r["b"])
-               for x in (d, e)):
-        return None
-    out = []
-    for x in (d, e):
+    moved = ex.get("moved")
+    split = rows.get("split", {}).get("ammonium")
+
+    def same(x, r):
+        return (len(x["a"]) == len(r["a"]) and np.array_equal(x["site_index"], r["site_index"])
+                and np.array_equal(x["a"], r["a"]) and np.array_equal(x["b"], r["b"]))
+
+    def per_row(x):
         *_, pr = share_to_periods(x["site_index"], x["a"], x["b"], x["deposition"], x["cs"],
                                   n_sites, axes, times, x["start"], x["end"], per_row=True,
                                   cn=x.get("cn"))
-        out.append(np.where(np.isfinite(pr), pr, 0.0))
-    return tuple(out)
+        return np.where(np.isfinite(pr), pr, 0.0)
+    dep, emi = [], []
+    for name, r, factor in parts:
+        member = name if isinstance(name, str) else name[-1]
+        if member == "NH3" and same(ex["deposition"], r) and same(ex["emission"], r):
+            dep.append(factor * per_row(ex["deposition"]))
+            emi.append(per_row(ex["emission"]))
+        elif (moved is not None and split is not None and split[0] == "NH3"
+              and member == split[1] and same(moved, r)):
+            dep.append(factor * per_row(moved))           # pNH4 at the exchange's Vd
+            emi.append(np.zeros_like(dep[-1]))              # emits nothing of its own
+        else:
+            return None
+    return np.concatenate(dep), np.concatenate(emi)
+
+
+def _emission_only_rows(rows, axes, times, n_sites):
+    """The NH3 rows of a net exchange that is the emission alone, or None.
+
+    Under ``pair_split = "all_particle"`` the NH3 component has no rows of its own
+    (:func:`workbench.drypairs.component_rows`: the pair is pNH4's) but the net
+    exchange stands with C(NH3) = 0: -E over the NH3 samples.  Returns ``(rows piece,
+    emission (n, P, R) [mol m-2])`` of those samples so that the draws hold E with its
+    factors (the Vd factor, Gamma_s); None otherwise.
+    """
+    from ..dryflux import share_to_periods
+    ex = rows.get("nh3_exchange")
+    split = rows.get("split", {}).get("ammonium")
+    if ex is None or split is None or split[0] == "NH3" or split[1] != "NH3":
+        return None
+    e = ex["emission"]
+    *_, pr = share_to_periods(e["site_index"], e["a"], e["b"], e["deposition"], e["cs"],
+                              n_sites, axes, times, e["start"], e["end"], per_row=True,
+                              cn=e.get("cn"))
+    return ex["deposition"], np.where(np.isfinite(pr), pr, 0.0)
 
 
 def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False, censored="half"):
@@ -275,6 +317,10 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False, censo
         # rows with its Vd (each shared by its own coverage) or none (a 0 component)
         parts = component_rows(rows, sp)
         if not parts:
+            eo = (_emission_only_rows(rows, axes, times, len(row_sites)) if sp == "NH3"
+                  else None)
+            if eo is not None:
+                _emission_pieces(out, eo, sites, row_sites, rows, air, n_r, histories)
             continue
         _, c_fill = rows["vd_cum"][sp]          # the Vd of `sp` in every part
         per_row, si, filled, cens, member, sampler, start, end = ([] for _ in range(8))
@@ -333,6 +379,34 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False, censo
                                    None if exch is None else exch[0][sel][:, :, :n_r],
                                    None if exch is None else exch[1][sel][:, :, :n_r])
     return out
+
+
+def _emission_pieces(out, eo, sites, row_sites, rows, air, n_r, histories):
+    """NH3 pieces holding the emission alone (``pair_split = "all_particle"`` under the
+    bidirectional exchange): no deposition part, no fill share (the fill error acts on
+    the deposition part), each NH3 sample's emission (:func:`_emission_only_rows`)."""
+    r, emission = eo
+    si = np.asarray(r["site_index"])
+    samplers = air["sampler_id"].values.astype(str)[r["air_row"]]
+    start = np.asarray(r["start"]).astype("datetime64[ns]")
+    end = np.asarray(r["end"]).astype("datetime64[ns]")
+    cens = np.asarray(r.get("censored", np.zeros(len(si), bool)), bool)
+    recs = list(rows["receptors"])[:n_r]
+    for k, s in enumerate(sites):
+        if s not in row_sites:
+            continue
+        sel = np.flatnonzero((si == row_sites.index(s)) & (emission != 0).any(axis=(1, 2)))
+        if not len(sel):
+            continue
+        e = emission[sel][:, :, :n_r]
+        zero = np.zeros_like(e)
+        out[k]["NH3"] = DryPieces(zero, cens[sel], zero, sel,
+                                  sample_identity(samplers[sel], start[sel],
+                                                  np.full(len(sel), "NH3")),
+                                  start[sel], end[sel],
+                                  _row_classes(recs, start[sel], end[sel],
+                                               (histories or {}).get(s)),
+                                  exchange=zero, emission=e)
 
 
 def _wet_layers(screened, wet, periods, wet_options, met, sites, ions):

@@ -11,7 +11,8 @@ by the site and the instant of its change, a laboratory's calibration bias by th
 precipitation or air, the ion or species and its period's first instant (a laboratory
 the catalogue names: by the seed, its id and the analysed ion, so every site naming it
 shares the draw), a land-use class's part of the Vd factors by the seed and the class,
-a site's own Vd factor and its bulk-collector factor by the site.  So a site, a site-year and a
+a site's own Vd factor and its bulk-collector factor by the site, its stomatal
+NH3 emission potential factor by the site and the land-use class.  So a site, a site-year and a
 sample draw the same numbers in every run that holds them (docs/methods_uncertainty.md).
 """
 from __future__ import annotations
@@ -64,6 +65,11 @@ class SiteNoise:
     #: species -> (D, n_rows) errors of the pNa analysis behind the sea-salt sulfate of a
     #: non-sea-salt pSO4 row (``DryPieces.seasalt``), drawn apart from the pSO4 [1]
     air_seasalt: dict = field(default_factory=dict)
+    #: land-use class -> (D, Y) log-normal factor of the stomatal NH3 emission potential
+    #: Gamma_s [1] of the site's receptors of that class, on the emission part of the
+    #: net NH3 exchange (``nh3_gamma_gsd`` > 1 and a site with a bidirectional
+    #: emission; None: not drawn)
+    nh3_gamma: dict | None = None
 
 
 def _normal_factor(rng, sd, shape):
@@ -104,6 +110,8 @@ GAUGE_PERIOD, LAB_BIAS, VD_CLASS = 5, 6, 7
 #: key: shared by every site naming the laboratory), a site's own Vd factor, a site's
 #: bulk-collector factor.
 NAMED_LAB, VD_SITE, BULK_FACTOR = 8, 9, 10
+#: Tag of a site's stomatal NH3 emission potential factor (with the land-use class).
+NH3_GAMMA = 11
 #: The ion each laboratory analysis measures: a precipitation ion and an air species
 #: analysed as the same ion share a named laboratory's calibration draw.
 ANALYTE = {"SO4": "sulfate", "NO3": "nitrate", "NH4": "ammonium",
@@ -502,4 +510,29 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
     if sd_bulk > 0 and getattr(layer_site, "bulk_part", None):
         bulk = bulk_factors(opt, key, sd_bulk, d, n_years, year0)
     return SiteNoise(vd, gauge, depth, pconc, air, vd_fill, pwm_fill, gauge_periods, vd_class,
-                     lab_precip, lab_air, bulk, vd_site, air_ss)
+                     lab_precip, lab_air, bulk, vd_site, air_ss,
+                     nh3_gamma_factors(layer_site, opt, key, d, n_years, year0))
+
+
+def nh3_gamma_factors(layer_site, opt, key, d, n_years, year0):
+    """The site's Gamma_s factors: land-use class -> (D, Y) [1], or None (not drawn).
+
+    :math:`G_c = \\exp(\\ln(\\mathrm{GSD})\\, z_c)`, log-normal with median 1 and GSD
+    ``nh3_gamma_gsd``, one per site and land-use class of its receptors (the stream of
+    the site, tag :data:`NH3_GAMMA` and the class: a class's Gamma_s at a site is a
+    quantity of its own, its default or the site's override), shared by the years (per
+    calendar year under ``"each_year"``, as the site's other systematic factors).
+    Drawn only where the site's NH3 has an emission part that is not 0 (the
+    bidirectional exchange, ``DryPieces.emission``) and the GSD is above 1.
+    """
+    gsd = float(getattr(opt, "nh3_gamma_gsd", 1.0))
+    rows = layer_site.dry.get("NH3")
+    em = getattr(rows, "emission", None)
+    if not gsd > 1.0 or em is None or not np.any(em != 0):
+        return None
+    classes = ({None} if rows.klass is None
+               else {str(c) for c in np.unique(rows.klass.astype(str))})
+    ln = np.log(gsd)
+    return {c: np.exp(ln * _site_factor(opt, key, [NH3_GAMMA] + _stream_key(
+                (c if c is not None else "",)), d, n_years, year0,
+                lambda r: r.standard_normal(d))) for c in sorted(classes, key=str)}

@@ -195,11 +195,29 @@ def bulk_in_force(options, bulk=None) -> tuple:
     return True, ""
 
 
-def draws_in_force(options, bulk=None) -> str:
+def gamma_words(options, gamma=None) -> str:
+    """The words naming the stomatal NH3 emission potential's factor where it was
+    drawn (`gamma` true: :attr:`workbench.analysis.uncertainty.BudgetQuantiles.
+    nh3_gamma_drawn`), "" otherwise: a factor is named as drawn only where it was.
+
+    >>> gamma_words(types.SimpleNamespace(nh3_gamma_gsd=3.0), True)
+    'nh3_gamma_gsd = 3 (Gamma_s of the bidirectional NH3 exchange), '
+    >>> gamma_words(types.SimpleNamespace(nh3_gamma_gsd=3.0), False)
+    ''
+    """
+    if not gamma or float(getattr(options, "nh3_gamma_gsd", 1.0)) <= 1.0:
+        return ""
+    return (f"nh3_gamma_gsd = {options.nh3_gamma_gsd:g} (Gamma_s of the bidirectional NH3 "
+            "exchange), ")
+
+
+def draws_in_force(options, bulk=None, gamma=None) -> str:
     """One line naming how the systematic factors were drawn (the options a reader of a
     range must know: ``systematic_errors``, the laboratory biases, the land-use class
     part of the Vd), as the report shows it; "" without options.  `bulk`: as
-    :func:`bulk_in_force`; a bulk factor not drawn is said so beside its option."""
+    :func:`bulk_in_force`; a bulk factor not drawn is said so beside its option.
+    `gamma`: whether the Gamma_s factor was drawn (:func:`gamma_words`; named only
+    then)."""
     if options is None:
         return ""
     drawn, why = bulk_in_force(options, bulk)
@@ -213,12 +231,13 @@ def draws_in_force(options, bulk=None) -> str:
             f"vd_class_fraction = {options.vd_class_fraction:g}, "
             f"vd_site_gsd = {getattr(options, 'vd_site_gsd', 1.0):g}, "
             f"lab_bias_filter_pack = {str(getattr(options, 'lab_bias_filter_pack', False)).lower()}, "
-            + bulk_words
+            + bulk_words + gamma_words(options, gamma)
             + f"gauge_catch_rel_sd = {options.gauge_catch_rel_sd:g} per gauge period "
             f"({options.draws} draws, seed {options.seed}).")
 
 
-def report_section(table, to_html, options=None, text_options=None, bulk=None) -> list:
+def report_section(table, to_html, options=None, text_options=None, bulk=None,
+                   gamma=None) -> list:
     """HTML parts of the report: the 5-95 % range of every total (none without draws).
 
     Parameters
@@ -234,6 +253,10 @@ def report_section(table, to_html, options=None, text_options=None, bulk=None) -
         default `options`).
     bulk : tuple, optional
         ``(bulk_correction, drawn)`` of the run (:func:`bulk_in_force`).
+    gamma : tuple, optional
+        ``(net, drawn)`` of the run: its NH3 component is the net exchange
+        (``nh3_treatment = "bidirectional"``) and the Gamma_s factor was drawn
+        (:func:`report_text`).
     """
     import html
     if "flux_kg_ha_yr_p05" not in table:
@@ -247,12 +270,13 @@ def report_section(table, to_html, options=None, text_options=None, bulk=None) -
                                       "range_note": "the range covers"})
     return ["<h2>Uncertainty: 5-95 % range of every total [kg/ha/yr of S or N]</h2>",
             "<p>" + html.escape(report_text(options if text_options is None
-                                            else text_options, bulk)) + "</p>",
-            "<p class='draws'>" + html.escape(draws_in_force(options, bulk)) + "</p>",
+                                            else text_options, bulk, gamma)) + "</p>",
+            "<p class='draws'>" + html.escape(draws_in_force(
+                options, bulk, gamma is not None and gamma[1])) + "</p>",
             to_html(frame)]
 
 
-def report_text(options, bulk=None) -> str:
+def report_text(options, bulk=None, gamma=None) -> str:
     """What the ranges hold and leave out, as the report says it, for the options the
     draws were made with (docs/methods_uncertainty.md, "What a range covers").
 
@@ -273,6 +297,11 @@ def report_text(options, bulk=None) -> str:
         ``(bulk_correction, drawn)`` of the run (:func:`bulk_in_force`): the bulk
         collector's factor is named only where it was drawn, and under
         ``"exclude_particles"`` its assumption is named as not in the range.
+    gamma : tuple, optional
+        ``(net, drawn)``: the run's NH3 component is the net exchange of the
+        bidirectional model, and its stomatal emission potential Gamma_s was drawn
+        (``nh3_gamma_gsd`` > 1 at a site with an emission part): named as drawn only
+        then; a net exchange without the draw names Gamma_s as not in the range.
     """
     shared = getattr(options, "systematic_errors", "shared") == "shared"
     site_vd = float(getattr(options, "vd_site_gsd", 1.0)) > 1.0
@@ -303,6 +332,11 @@ def report_text(options, bulk=None) -> str:
         rest += (", and under bulk_correction = \"scale_wet\" a bulk collector's "
                  "wet-only / bulk factor (one per site and ion, correlated among the ions "
                  "by bulk_factor_ion_correlation)")
+    net, gamma_drawn = gamma if gamma is not None else (False, False)
+    if gamma_drawn:
+        rest += (", and under nh3_treatment = \"bidirectional\" the stomatal NH3 emission "
+                 "potential Gamma_s (log-normal, nh3_gamma_gsd; one per site and land-use "
+                 "class, on the emission part of the net NH3 exchange)")
     span = ("A span mean's range does not narrow with its years for the systematic "
             "factors (unless [uncertainty] systematic_errors = \"each_year\", the old "
             "treatment kept for comparison). " if shared else
@@ -312,6 +346,9 @@ def report_text(options, bulk=None) -> str:
     left = ("a calibration bias shared by laboratories the site catalogue does not name "
             "as one" + ("" if pack else ", or by the gas and particle filters of a pack "
                         "(lab_bias_filter_pack = false)"))
+    if net and not gamma_drawn:
+        left += ("; the stomatal NH3 emission potential Gamma_s of the net NH3 exchange "
+                 "(not drawn: nh3_gamma_gsd = 1)")
     if excluded:
         left += ("; the assumption of bulk_correction = \"exclude_particles\" that a bulk "
                  "collector's samples hold the particle dry deposition of the hours it ran "

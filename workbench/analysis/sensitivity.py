@@ -17,7 +17,9 @@ Factors (scenario section ``[sensitivity]``, table ``factors``: name -> range):
   receptor class (``DryOptions.roughness``), ``rc_scale_<gas>`` [1] a multiplier of a
   gas's surface resistance (``DryOptions.rc_scale``; [0.5, 2.0] when named with ``[]``),
   ``nh3_gamma_<land use>`` [1] the stomatal NH3 emission potential Gamma_s of a class
-  (``DryOptions.nh3_emission_potential``).  ``nh3_gamma_*`` switches the bidirectional
+  (``DryOptions.nh3_emission_potential``; named with ``[]``, the class default over
+  +-1 GSD of the Monte Carlo's ``nh3_gamma_gsd``, the same spread as its draws,
+  :func:`.sensitivity_options.nh3_gamma_range`).  ``nh3_gamma_*`` switches the bidirectional
   NH3 model on (``nh3_treatment = "bidirectional"``) in every run where it has a value,
   so its low and high ends compare with each other, not with a deposition-only base;
   a site's own Gamma_s for the class (sites.toml, or a ``"<site>/<class>"`` key) still

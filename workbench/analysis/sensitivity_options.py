@@ -9,7 +9,7 @@ from dataclasses import asdict, dataclass, field
 
 from ..budget import PARTICLES
 from .layer import DRY_SPECIES
-from .uncertainty import DEFAULT_VD_GSD
+from .uncertainty import DEFAULT_NH3_GAMMA_GSD, DEFAULT_VD_GSD
 
 #: The outputs: (element, quantity, key of :func:`totals_of`) [mol m-2; eq ha-1 for acidity].
 OUTPUTS = (("S", "wet", "S_wet"), ("S", "dry", "S_dry"), ("S", "total", "S_total"),
@@ -26,6 +26,24 @@ WETNESS = ("met", "inferred", "always_dry", "always_wet")
 #: Range of an ``rc_scale_<gas>`` factor named with an empty range: a factor of 2 either
 #: way (our choice, common practice for a resistance known to within about a factor 2).
 RC_SCALE_RANGE = (0.5, 2.0)
+
+
+def nh3_gamma_range(land_use: str) -> tuple:
+    """Range of an ``nh3_gamma_<land use>`` factor named with an empty range: the
+    class default Gamma_s (:data:`workbench.drydep.nh3_bidirectional.EMISSION_POTENTIAL`)
+    over +-1 GSD of the Monte Carlo's ``nh3_gamma_gsd`` default (3, our choice, from
+    memory of Massad et al. 2010), as the Vd factors span +-1 GSD [-].
+
+    >>> nh3_gamma_range("crops")
+    (333.333, 3000.0)
+    """
+    from ..drydep.nh3_bidirectional import EMISSION_POTENTIAL
+    g = float(EMISSION_POTENTIAL[land_use])
+    if not g > 0:
+        raise ValueError(f"SensitivityOptions.factors.nh3_gamma_{land_use} = []: the class "
+                         f"has no stomatal emission potential by default (Gamma_s {g:g}); "
+                         "give the range [low, high]")
+    return (round(g / DEFAULT_NH3_GAMMA_GSD, 3), g * DEFAULT_NH3_GAMMA_GSD)
 
 
 def _default_factors() -> dict:
@@ -51,7 +69,9 @@ class SensitivityOptions:
         Seed of the Sobol sequence's scrambling and of the bootstrap.
     factors : dict
         factor name -> [low, high] (a uniform range) or, for ``wetness_rule``, a list
-        of rules; ``rc_scale_<gas>`` named with ``[]`` takes [0.5, 2.0].  Default: the Vd of every dry species over +-1 GSD of the
+        of rules; ``rc_scale_<gas>`` named with ``[]`` takes [0.5, 2.0],
+        ``nh3_gamma_<land use>`` named with ``[]`` the class default Gamma_s over +-1 GSD
+        of the Monte Carlo's ``nh3_gamma_gsd`` (:func:`nh3_gamma_range`).  Default: the Vd of every dry species over +-1 GSD of the
         ``[uncertainty]`` defaults, gauge catch and the concentrations +-10 %, and,
         where a site analysed has bulk-collector samples under ``bulk_correction =
         "scale_wet"``, ``bulk_wet_factor`` (a multiplier of every ion's factor) over
@@ -76,9 +96,15 @@ class SensitivityOptions:
             object.__setattr__(self, name, int(v))
         if self.samples < 2 or self.samples & (self.samples - 1):
             raise ValueError(f"SensitivityOptions.samples = {self.samples} must be a power of 2")
-        object.__setattr__(self, "factors", {
-            k: (RC_SCALE_RANGE if not len(v) and str(k).startswith("rc_scale_") else v)
-            for k, v in self.factors.items()})
+        def empty(k, v):          # a factor named with [] takes its default range
+            if len(v):
+                return v
+            if str(k).startswith("rc_scale_"):
+                return RC_SCALE_RANGE
+            if str(k).startswith("nh3_gamma_") and factor_kind(k) == "nh3_gamma":
+                return nh3_gamma_range(str(k)[len("nh3_gamma_"):])
+            return v
+        object.__setattr__(self, "factors", {k: empty(k, v) for k, v in self.factors.items()})
         if len(self.factors) < 2:
             raise ValueError("SensitivityOptions.factors needs at least 2 factors")
         for name, rng in self.factors.items():

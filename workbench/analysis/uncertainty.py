@@ -71,6 +71,17 @@ DEFAULT_VD_GSD = {"SO2": 1.5, "pSO4": 1.8, "HNO3": 1.4, "pNO3": 1.8, "pNH4": 1.8
                   "NH3": 2.0, "NO2": 2.0}
 
 
+#: Geometric standard deviation of the stomatal NH3 emission potential Gamma_s of a
+#: site's land-use class [1] (:attr:`UncertaintyOptions.nh3_gamma_gsd`).  Our choice,
+#: from memory of the scatter of measured Gamma_s about the relation with the nitrogen
+#: input in the review of Massad et al. (2010), Atmos. Chem. Phys. 10, 10359-10386
+#: (about a factor of 3 either way within one kind of surface, while the classes span
+#: orders of magnitude, tens for unfertilised semi-natural land to thousands for
+#: fertilised crops): a class default or a site's value is known to within a factor of
+#: about 3 at one standard deviation.
+DEFAULT_NH3_GAMMA_GSD = 3.0
+
+
 #: The ways of drawing the systematic factors (:attr:`UncertaintyOptions.systematic_errors`).
 SYSTEMATIC_ERRORS = ("shared", "each_year")
 
@@ -178,6 +189,16 @@ class UncertaintyOptions:
         loss in the standing sample).  0.7 (our choice, no published value: from memory,
         the bulk / wet-only ratios of sulfate and nitrate at a site rise and fall
         together, ammonium's less so); 1 shares one factor by the ions, as before.
+    nh3_gamma_gsd : float
+        Geometric standard deviation of the stomatal NH3 emission potential Gamma_s
+        [1], log-normal with median 1, under ``[dry] nh3_treatment = "bidirectional"``
+        only: one draw per site and land-use class of its receptors, shared by its years
+        (``"each_year"``: per site and year), acting on the emission part E of the net
+        exchange alone (E is proportional to Gamma_s through the compensation point,
+        :mod:`workbench.drydep.nh3_bidirectional`).  3.0 (our choice, from memory of
+        the scatter in Massad et al. 2010, ACP 10, 10359: :data:`DEFAULT_NH3_GAMMA_GSD`);
+        1 switches it off.  Not drawn, and not named as drawn, where no site has an
+        emission part.
     """
 
     draws: int = 0
@@ -199,6 +220,7 @@ class UncertaintyOptions:
     lab_bias_filter_pack: bool = True
     bulk_factor_rel_sd: float = 0.1
     bulk_factor_ion_correlation: float = 0.7
+    nh3_gamma_gsd: float = DEFAULT_NH3_GAMMA_GSD
 
     def __post_init__(self):
         if self.systematic_errors not in SYSTEMATIC_ERRORS:
@@ -220,10 +242,11 @@ class UncertaintyOptions:
             v = getattr(self, name)
             if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 <= v <= 1:
                 raise ValueError(f"UncertaintyOptions.{name} = {v!r} must lie in [0, 1]")
-        v = self.vd_site_gsd
-        if isinstance(v, bool) or not isinstance(v, (int, float)) or not 1 <= v < math.inf:
-            raise ValueError(f"UncertaintyOptions.vd_site_gsd = {v!r} must be a finite number "
-                             ">= 1 (1 switches the factor off)")
+        for name in ("vd_site_gsd", "nh3_gamma_gsd"):
+            v = getattr(self, name)
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not 1 <= v < math.inf:
+                raise ValueError(f"UncertaintyOptions.{name} = {v!r} must be a finite number "
+                                 ">= 1 (1 switches the factor off)")
         if not isinstance(self.lab_bias_filter_pack, bool):
             raise ValueError(f"UncertaintyOptions.lab_bias_filter_pack = "
                              f"{self.lab_bias_filter_pack!r} must be true or false")
@@ -348,22 +371,27 @@ def nss_dry_draws(pieces, vd_factor, air, air_seasalt, vd_fill, class_factor=Non
     return np.maximum(acc, 0.0).transpose(0, 2, 1)
 
 
-def nh3_net_draws(pieces, vd_factor, air, vd_fill, class_factor=None):
+def nh3_net_draws(pieces, vd_factor, air, vd_fill, class_factor=None, gamma=None):
     """Draws of the net NH3 exchange (bidirectional): (D, R, P) [mol m-2], not ratios.
 
     The net of a period is :math:`\\sum_n (B_n - E_n)`, with :math:`B_n` row *n*'s
     deposition part :math:`C_n\\, v_{d,bd}` and :math:`E_n` its emission part (from
     the compensation point, no concentration in it).  A draw is
 
-    .. math:: D = F \\Big(\\sum_n B_n \\delta_n (1 + \\phi_n \\eta_n) - \\sum_n E_n\\Big)
+    .. math:: D = F \\Big(\\sum_n B_n \\delta_n (1 + \\phi_n \\eta_n) -
+              \\sum_n G_{c(n)} E_n\\Big)
 
     the Vd factor :math:`F` on both parts (a bias of the exchange's resistances scales
     the deposition and the emission alike), the concentration errors :math:`\\delta`
-    and the fill error on the deposition part only.  The draws used to scale the net by
+    and the fill error on the deposition part only, and the factor :math:`G_c` of the
+    stomatal emission potential Gamma_s of the row's land-use class on the emission
+    part only (E is proportional to Gamma_s).  The draws used to scale the net by
     the deposition-only rows' relative error, so a concentration error moved the net by
     its share of the net rather than of the deposition part (too little where emission
     and deposition nearly cancel), and turned a higher concentration into a larger net
     emission where the net was one.  Not clipped: a net emission stays negative.
+    Under ``pair_split = "all_gas"`` the rows are both members' (a pNH4 row's B at the
+    exchange's Vd, its E 0); under ``"all_particle"`` the NH3 samples' E alone (B 0).
 
     Parameters
     ----------
@@ -373,17 +401,29 @@ def nh3_net_draws(pieces, vd_factor, air, vd_fill, class_factor=None):
     air, vd_fill : ndarray (D, n)
     class_factor : dict, optional
         Land-use class -> (D, P) Vd factor.
+    gamma : dict, optional
+        Land-use class (None where ``pieces.klass`` is None) -> (D, P) Gamma_s factor
+        [1] (:func:`workbench.analysis.noise.nh3_gamma_factors`); None: not drawn.
     """
     import dataclasses
     dep = dataclasses.replace(pieces, contrib=pieces.exchange)
     n_d = air.shape[0]
     f_dep = dry_ratio(dep, vd_factor, air, vd_fill, class_factor)              # (D, R, P)
-    f_only = dry_ratio(dep, vd_factor, np.ones_like(air), np.zeros_like(vd_fill),
-                       class_factor)                                          # F per receptor
     b = pieces.exchange.sum(0).T[None]                                        # (1, R, P)
     e = pieces.emission.sum(0).T[None]
+    ones, zeros = np.ones_like(air), np.zeros_like(vd_fill)
+    if gamma is None:
+        # F per receptor (of its class), as of the deposition part
+        f_e = dry_ratio(dep, vd_factor, ones, zeros, class_factor)
+    elif pieces.klass is None:
+        f_e = (vd_factor * gamma[None])[:, None, :] * np.ones_like(e)
+    else:
+        # F G_c of each class, weighted by the emission its rows carry
+        em = dataclasses.replace(pieces, contrib=pieces.emission)
+        cf = {c: (class_factor or {}).get(c, vd_factor) * g for c, g in gamma.items()}
+        f_e = dry_ratio(em, vd_factor, ones, zeros, cf)
     # dry_ratio gives F (1 + ...) relative to B; where B is 0 it is F alone
-    return np.broadcast_to(f_dep * b - f_only * e, (n_d,) + b.shape[1:])
+    return np.broadcast_to(f_dep * b - f_e * e, (n_d,) + b.shape[1:])
 
 
 def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int) -> np.ndarray:
@@ -422,8 +462,10 @@ def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int)
                 pt = point[..., j]
                 same = np.isfinite(pt) & np.isclose(pt, lin, rtol=1e-9, atol=1e-300)
                 if same.any():
+                    g = getattr(noise, "nh3_gamma", None)
+                    g = None if not g else {c: f[:, yi] for c, f in g.items()}
                     direct[j] = (nh3_net_draws(pc, noise.vd[:, yi, k], noise.air[sp],
-                                               noise.vd_fill[sp], cf), same)
+                                               noise.vd_fill[sp], cf, g), same)
             if pc.seasalt is not None and sp in noise.air_seasalt:
                 # non-sea-salt pSO4: drawn as the difference of its two analyses and
                 # clipped at 0 as the budget's sum, where the point is that clipped sum
@@ -522,6 +564,10 @@ class BudgetQuantiles:
     #: "scale_wet"``, a site with a bulk part and ``bulk_factor_rel_sd`` > 0): the
     #: report names the factor only then.
     bulk_drawn: bool = False
+    #: Whether the stomatal NH3 emission potential's factor was drawn at any site
+    #: (``nh3_treatment = "bidirectional"``, a site whose NH3 has an emission part, and
+    #: ``nh3_gamma_gsd`` > 1): the report names the factor only then.
+    nh3_gamma_drawn: bool = False
 
 
 def _span_draws(ds, comp, tot):
@@ -602,7 +648,7 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
     q = np.asarray(QUANTILES)
     out = {}
     span_c, span_t, kept = [], [], []
-    bulk_drawn = False
+    bulk_drawn = gamma_drawn = False
     for which, lay in sorted(layers.items(), key=lambda kv: kv[0] != "years"):
         if which == "budget" and lay is layers.get("years"):
             out[which] = out["years"]                # a yearly run: the same draws
@@ -617,6 +663,7 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
                                (options.seed, str(ds["site"].values[k])), year0,
                                (ds["period_start"].values, ds["period_end"].values))
             bulk_drawn |= noise.bulk is not None
+            gamma_drawn |= noise.nh3_gamma is not None
             comp = component_draws(lay, k, noise, year0)
             tot = totals_of(comp)
             comp_q[:, k] = np.quantile(comp, q, axis=0)
@@ -653,7 +700,8 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
                                {"units": "eq ha-1 yr-1"}) for i, e in enumerate("sn")},
         coords={"draw": np.arange(options.draws), "site": yds["site"].values,
                 "receptor": yds["receptor"].values, "period": per})
-    return BudgetQuantiles(out.get("budget"), out["years"], span, options, draws, bulk_drawn)
+    return BudgetQuantiles(out.get("budget"), out["years"], span, options, draws, bulk_drawn,
+                           gamma_drawn)
 
 
 def _annual_draws(tot, span_t, annual_factor):
@@ -770,7 +818,17 @@ def bulk_state(result) -> tuple:
             bool(getattr(q, "bulk_drawn", False)))
 
 
-def report_section(table, to_html, options=None, bulk=None) -> list:
+def nh3_gamma_state(result) -> tuple:
+    """``(net, drawn)`` of a run: its NH3 component is the net exchange of the
+    bidirectional model (the budget's ``nh3_figure``), and its Monte Carlo drew the
+    stomatal emission potential's factor at any site (False without draws)."""
+    q = result.options.get("uncertainty")
+    budget = getattr(result, "budget", None)
+    net = budget is not None and budget.attrs.get("nh3_figure") == "net"
+    return net, bool(getattr(q, "nh3_gamma_drawn", False))
+
+
+def report_section(table, to_html, options=None, bulk=None, gamma=None) -> list:
     """HTML parts of the report: the 5-95 % range of every total (none without draws),
     :func:`workbench.analysis.quantile_tables.report_section` with the text of what a
     range holds written for `options`, or for the default :class:`UncertaintyOptions`
@@ -779,7 +837,10 @@ def report_section(table, to_html, options=None, bulk=None) -> list:
     `bulk`: ``(bulk_correction, drawn)``, the run's ``[budget] bulk_correction`` and
     whether a bulk collector's factor was drawn (:attr:`BudgetQuantiles.bulk_drawn`), so
     that the text names the factor only where it was in force; None: not known (the
-    factor is named as drawn wherever ``bulk_factor_rel_sd`` > 0)."""
+    factor is named as drawn wherever ``bulk_factor_rel_sd`` > 0).  `gamma`: ``(net,
+    drawn)`` (:func:`nh3_gamma_state`), the Gamma_s factor named as drawn only where it
+    was; None: not named."""
     return _quantile_tables.report_section(
         table, to_html, options,
-        text_options=UncertaintyOptions() if options is None else options, bulk=bulk)
+        text_options=UncertaintyOptions() if options is None else options, bulk=bulk,
+        gamma=gamma)
