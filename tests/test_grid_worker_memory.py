@@ -1,5 +1,5 @@
 """`workbench grid` on dask workers whose memory limit is smaller than what a task needs
-(workbench.grid_cluster).
+(workbench.worker_memory, shared with `workbench run`).
 
 The met of an invented 64 x 64 demo grid is NetCDF4 in one zlib chunk a variable (a
 month: 744 time steps x 64 x 64 cells, 12 MB of float32), so its block-major scratch
@@ -23,7 +23,7 @@ import xarray as xr
 pytest.importorskip("distributed")
 pytest.importorskip("netCDF4", reason="NetCDF4 files need the netcdf4 extra")
 
-import workbench.grid_cluster as grid_cluster  # noqa: E402
+import workbench.worker_memory as worker_memory  # noqa: E402
 from workbench.grid_demo import make_demo_grid  # noqa: E402
 
 N = 64
@@ -62,7 +62,7 @@ def address():
 def _run(scenario, out, address, capsys, monkeypatch) -> str:
     """`workbench grid` on the cluster: its one error line (exit code 2, no traceback)."""
     from workbench.cli import main
-    monkeypatch.setattr(grid_cluster, "PAUSED_GIVE_UP_S", 3.0)
+    monkeypatch.setattr(worker_memory, "PAUSED_GIVE_UP_S", 3.0)
     code = main(["grid", str(scenario), "--out", str(out), "--quiet", "--block", "16",
                  "--scheduler", address])
     err = capsys.readouterr().err
