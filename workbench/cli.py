@@ -304,10 +304,7 @@ def cmd_run(args) -> int:
     print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
     for name in written:
         print(f"  {name}")
-    from .dasklog import LOG_NAME
-    if (Path(args.out) / LOG_NAME).is_file():           # warnings of the workers
-        print(f"note: distributed's own warnings (worker memory, restarts): "
-              f"{(Path(args.out) / LOG_NAME).resolve()}", file=sys.stderr)
+    _dask_log_note(args.out)                 # warnings of the workers, if any
     from .writers import changed_note
     for path in changed_inputs(Path(args.out)):         # edited after the run read it
         print(f"warning: {changed_note(path, None)}", file=sys.stderr)
@@ -464,7 +461,18 @@ def cmd_grid(args) -> int:
     print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
     for name in written:
         print(f"  {name}")
+    _dask_log_note(args.out)                 # warnings of the workers, if any
     return 0
+
+
+def _dask_log_note(out):
+    """A note on stderr naming ``dask.log`` of the run folder `out`, when distributed
+    warned during the run (:mod:`workbench.dasklog`)."""
+    from .dasklog import LOG_NAME
+    log = Path(out) / LOG_NAME
+    if log.is_file():
+        print(f"note: distributed's own warnings (worker memory, restarts): {log.resolve()}",
+              file=sys.stderr)
 
 
 def _positive(text) -> int:
