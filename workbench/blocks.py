@@ -550,12 +550,16 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
         queue = distributed.as_completed(first)
         # workers with too little memory for a block: one message, no traceback and no
         # wait for ever (workbench.worker_memory); the words name the block waited for
-        now = [max(range(len(blocks)), key=lambda i: len(blocks[i]) * len(wanted[i][1]))]
+        def size(i):                        # site-receptor pairs of block i
+            return len(blocks[i]) * len(wanted[i][1])
+        now = [max(futures.values(), key=size, default=0)]
         watcher = watch(client, describe_block(blocks, wanted, now, inputs.met, block_sites),
                         "the run")
         for n, fut in enumerate(completed(queue, watcher), 1):
             i = now[0] = futures.pop(fut)
             done[i] = task_result(fut, watcher)      # a failed block raises its error here
+            # while waiting: the largest block in flight
+            now[0] = max(futures.values(), key=size, default=i)
             fut.release()
             say(f"block {n}/{len(blocks)} done ({_n_sites(len(blocks[i]))})")
             nxt = submit()

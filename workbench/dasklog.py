@@ -1,5 +1,5 @@
-"""distributed's own log of a `workbench run` on dask workers, in a file instead of on
-the console.
+"""distributed's own log of `workbench run` and `workbench grid` on dask workers, in a
+file instead of on the console.
 
 distributed logs through the :mod:`logging` module: at import it puts a handler that
 writes to the console on its loggers (``distributed``, ``distributed.client``, ...,
@@ -95,7 +95,7 @@ def routed(path):
 
 
 def dask_setup(worker):  # noqa: ARG001  (distributed's preload interface)
-    """In a worker process of a local cluster started by ``workbench run --workers``:
+    """In a worker process of a local cluster started by ``--workers`` (run, grid):
     its log records go to the file named by the dask setting :data:`CONFIG_KEY` (kept
     on the console when it is not set or cannot be opened)."""
     import dask
