@@ -122,3 +122,42 @@ def test_the_words_of_a_block_of_several_sites():
                             "surface: its hourly met is 0.0 MiB (3 variables x 8 bytes")
     assert smaller == ("a smaller --block-sites (now 2; the memory follows a block's "
                        "site-hours)")
+
+
+class _Client:
+    """What the watch reads of a client: the scheduler's records of the workers."""
+    cluster = None
+
+    def __init__(self, workers):
+        self.workers = workers
+
+    def scheduler_info(self, n_workers=0):
+        return {"workers": self.workers}
+
+
+def _paused(executing):
+    return {"status": "paused", "memory_limit": 250 * 10**6,
+            "metrics": {"task_counts": {"executing": executing} if executing else {}}}
+
+
+def test_a_paused_worker_still_running_its_block_is_not_given_up(monkeypatch):
+    """distributed lets a paused worker end the task it runs: a block whose peak holds
+    its worker above 80 % for longer than the wait is no reason to stop the run (the
+    watch stopped it before, as if the worker were stuck).  A paused worker that runs
+    nothing is (no cluster: the scheduler's records as it gives them)."""
+    monkeypatch.setattr(worker_memory, "PAUSED_GIVE_UP_S", 0.0)
+    monkeypatch.setattr(worker_memory, "POLL_S", 0.0)
+    words = lambda: ("a block of 1 site (p)", "what it needs", "what to change")  # noqa: E731
+    busy = worker_memory.watch(_Client({"tcp://a": _paused(1)}), words, "the run")
+    busy.check()
+    busy.check()                                         # no error: it runs its block
+    idle = worker_memory.watch(_Client({"tcp://a": _paused(0)}), words, "the run")
+    with pytest.raises(worker_memory.WorkerMemoryError) as err:
+        idle.check()
+    assert str(err.value).startswith(
+        "the dask workers have too little memory for the run: every worker has been "
+        "paused, running nothing, for 0 s (distributed pauses a worker above 80 % of its "
+        "memory limit and starts nothing on it), with a block of 1 site (p) waiting "
+        "(what it needs; the workers have a memory limit of 238 MiB); give each worker "
+        "more memory (start them with a larger `dask worker --memory-limit`) or what to "
+        "change")

@@ -68,6 +68,14 @@ def _limits(client, workers=None) -> str:
     return f"memory limits of {_mib(limits[0])} to {_mib(limits[-1])}"
 
 
+def _busy(worker) -> bool:
+    """A worker (a record of ``scheduler_info``) that runs, or is paused but still runs
+    the task it had when it was paused (distributed lets it end: a block whose peak
+    holds the worker above 80 % for a while is no reason to stop)."""
+    counts = (worker.get("metrics") or {}).get("task_counts") or {}
+    return worker.get("status") == "running" or counts.get("executing", 0) > 0
+
+
 def _change(client) -> str:
     """Where the workers' memory is set: by this command's local cluster or by whoever
     started the workers."""
@@ -89,8 +97,8 @@ def memory_error(client, limits: str, what: str, needs: str, smaller: str,
 
 
 class _PauseWatch:
-    """Raises when no worker of the cluster has been running (every one paused, or
-    none there) for :data:`PAUSED_GIVE_UP_S` seconds on end."""
+    """Raises when no worker of the cluster has been running (every one paused with no
+    task running on it, or none there) for :data:`PAUSED_GIVE_UP_S` seconds on end."""
 
     def __init__(self, client, describe, job):
         self.client, self.describe, self.job = client, describe, job
@@ -124,16 +132,17 @@ class _PauseWatch:
         workers = list(by_address.values())
         if workers:
             self.limits = _limits(self.client, workers)
-        if any(w.get("status") == "running" for w in workers):
+        if any(_busy(w) for w in workers):
             self.since = None
             return
         self.since = now if self.since is None else self.since
         if now - self.since < PAUSED_GIVE_UP_S:
             return
         if workers:
-            raise self.error(f"every worker has been paused for {now - self.since:.0f} s "
-                             "(distributed pauses a worker above 80 % of its memory limit "
-                             "and runs nothing on it), with {what} waiting")
+            raise self.error(f"every worker has been paused, running nothing, for "
+                             f"{now - self.since:.0f} s (distributed pauses a worker above "
+                             "80 % of its memory limit and starts nothing on it), with "
+                             "{what} waiting")
         raise self.error(f"no worker has been running for {now - self.since:.0f} s (a "
                          "worker above 95 % of its memory limit as it starts is restarted "
                          "at once by its nanny; or none is connected), with {what} waiting")
