@@ -98,8 +98,8 @@ def test_workers_of_the_command_log_to_a_file_and_the_console_has_one_line(
     assert len(err.splitlines()) == 1, err
     line = err.splitlines()[0]
     assert line.startswith("error: the dask workers have too little memory for the run: ")
-    assert "give each worker more memory (fewer --workers (they share the machine's " \
-           "memory))" in line
+    assert "give each worker more memory (a machine with more memory: the one worker " \
+           "of --workers 1 has this machine's)" in line
     log = tmp_path / "out.dask.log"
     assert line.endswith(f" (distributed's own messages: {log})")
     text = log.read_text()

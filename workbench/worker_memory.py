@@ -79,7 +79,11 @@ def _busy(worker) -> bool:
 def _change(client) -> str:
     """Where the workers' memory is set: by this command's local cluster or by whoever
     started the workers."""
-    if getattr(client, "cluster", None) is not None:
+    cluster = getattr(client, "cluster", None)
+    if cluster is not None:
+        if len(getattr(cluster, "workers", None) or {}) == 1:
+            return ("a machine with more memory: the one worker of --workers 1 has this "
+                    "machine's")
         return "fewer --workers (they share the machine's memory)"
     return "start them with a larger `dask worker --memory-limit`"
 
