@@ -48,9 +48,9 @@ def events(monkeypatch):
                                           blocks.ClusterStart.close)
     real_prepare = preflight.prepare
 
-    def init(self, workers):
+    def init(self, workers, **kw):
         said.append("start")
-        real_init(self, workers)
+        real_init(self, workers, **kw)
 
     def result(self):
         said.append("use")

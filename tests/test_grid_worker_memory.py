@@ -1,5 +1,5 @@
 """`workbench grid` on dask workers whose memory limit is smaller than what a task needs
-(workbench.grid_cluster).
+(workbench.worker_memory, shared with `workbench run`).
 
 The met of an invented 64 x 64 demo grid is NetCDF4 in one zlib chunk a variable (a
 month: 744 time steps x 64 x 64 cells, 12 MB of float32), so its block-major scratch
@@ -12,6 +12,8 @@ command waited for ever.  Now either way one line names the limit, the chunk and
 change; the same for a block task of the grid in NetCDF3 (nothing to copy).  The
 scheduler here lets a task fail at the first death and the watch gives up after 3 s of
 paused workers, so each run ends in about 10 s (the inputs take longer to write).
+distributed's own messages go to a log kept beside the output folder
+(workbench.dasklog), named at the end of the line.
 """
 from __future__ import annotations
 
@@ -23,7 +25,7 @@ import xarray as xr
 pytest.importorskip("distributed")
 pytest.importorskip("netCDF4", reason="NetCDF4 files need the netcdf4 extra")
 
-import workbench.grid_cluster as grid_cluster  # noqa: E402
+import workbench.worker_memory as worker_memory  # noqa: E402
 from workbench.grid_demo import make_demo_grid  # noqa: E402
 
 N = 64
@@ -62,7 +64,7 @@ def address():
 def _run(scenario, out, address, capsys, monkeypatch) -> str:
     """`workbench grid` on the cluster: its one error line (exit code 2, no traceback)."""
     from workbench.cli import main
-    monkeypatch.setattr(grid_cluster, "PAUSED_GIVE_UP_S", 3.0)
+    monkeypatch.setattr(worker_memory, "PAUSED_GIVE_UP_S", 3.0)
     code = main(["grid", str(scenario), "--out", str(out), "--quiet", "--block", "16",
                  "--scheduler", address])
     err = capsys.readouterr().err
@@ -70,8 +72,13 @@ def _run(scenario, out, address, capsys, monkeypatch) -> str:
     lines = [ln for ln in err.splitlines() if ln.startswith("error:")]
     assert len(lines) == 1, err
     assert "Traceback" not in err and "KilledWorker" not in err
-    assert not out.exists() and [p.name for p in out.parent.iterdir()] == []
+    assert not out.exists()
     line = lines[0]
+    # distributed's own messages of this process (the cluster's scheduler and nanny run
+    # here): in a log beside the output folder, named at the end of the message
+    log = out.parent / f"{out.name}.dask.log"
+    assert [p.name for p in out.parent.iterdir()] == [log.name]
+    assert line.endswith(f" (distributed's own messages: {log})")
     assert line.startswith("error: the dask workers have too little memory for the grid: ")
     assert re.search(r"(the workers that ran|every worker has been paused|no worker has been "
                      r"running)", line), line

@@ -42,6 +42,7 @@ import pandas as pd
 from .blockreduce import reduce_blocks
 from .io.common import release_free_memory
 from .pipeline import Result, Study
+from .worker_memory import completed, result as task_result, watch
 
 __all__ = ["ClusterStart", "close_client", "run_blocks", "run_network", "site_blocks",
            "start_client", "wanted_blocks", "wants_blocks"]
@@ -133,6 +134,59 @@ def wanted_blocks(catalogue, receptors, block_sites=None) -> list:
         key = tuple(r for r in receptors if r in wanted)
         groups.setdefault(key, []).append(s.id)
     return [(block, key) for key, ids in groups.items() for block in site_blocks(ids, block_sites)]
+
+
+#: Memory of a block of sites at its peak in the worker, per site-hour and receptor
+#: surface [bytes] (measured with tracemalloc on the demo network, 8 years of hours:
+#: 122 MiB for one site x 70,128 hours x 2 receptors, 164 MiB for 3: 915 and 816 bytes;
+#: docs/performance.md, "A block of sites on a worker").  The hourly met of the block
+#: itself, (sites x hours x variables x 8 bytes), is about 1/30 of it.
+BLOCK_BYTES_PER_SITE_RECEPTOR_HOUR = 900
+#: Memory of a worker process before its first block [MiB] (the same measure: 63 MiB
+#: idle, 128 MiB with the package and the modules a block imports).
+WORKER_BASE_MIB = 130
+
+
+def block_need(n_sites, n_receptors, n_hours, n_vars) -> tuple:
+    """(hourly met, peak of the block's engine) of a block of sites [bytes]: the met is
+    ``n_sites x n_hours x n_vars x 8`` bytes (float64), the peak
+    :data:`BLOCK_BYTES_PER_SITE_RECEPTOR_HOUR` a site-hour and receptor surface.
+
+    >>> block_need(1, 2, 8760, 9)
+    (630720, 15768000)
+    """
+    site_hours = int(n_sites) * int(n_hours)
+    return (site_hours * int(n_vars) * 8,
+            site_hours * max(1, int(n_receptors)) * BLOCK_BYTES_PER_SITE_RECEPTOR_HOUR)
+
+
+def describe_block(blocks, wanted, now, met, block_sites):
+    """The words of :func:`workbench.worker_memory.memory_error` for the block of sites
+    ``blocks[now[0]]`` (its receptors in ``wanted[now[0]]``; `met` the network's hourly
+    met, whose whole record every block holds)."""
+    n_hours = int(met.sizes.get("time", 0)) if met is not None else 0
+    n_vars = len(met.data_vars) if met is not None else 0
+
+    def describe():
+        sites, recs = blocks[now[0]], wanted[now[0]][1]
+        met_b, peak = block_need(len(sites), len(recs), n_hours, n_vars)
+        names = ", ".join(sites[:3]) + (", ..." if len(sites) > 3 else "")
+        if len(sites) > 1:
+            smaller = (f"a smaller --block-sites (now {block_sites}; the memory follows a "
+                       "block's site-hours)")
+        else:
+            smaller = ("a shorter met record (a block is already one site; its memory "
+                       "follows its hours)")
+        return (f"a block of {_n_sites(len(sites))} ({names})",
+                f"a block of {len(sites) * n_hours:,} site-hours ({_n_sites(len(sites))} x "
+                f"{n_hours:,} hours) and {len(recs)} receptor surface"
+                f"{'' if len(recs) == 1 else 's'}: its hourly met is "
+                f"{met_b / 2**20:,.1f} MiB ({n_vars} variables x 8 bytes a site-hour) and "
+                f"the engine's work on it about {peak / 2**20:,.0f} MiB at its peak "
+                f"(measured: about {BLOCK_BYTES_PER_SITE_RECEPTOR_HOUR} bytes a site-hour "
+                f"and receptor), besides about {WORKER_BASE_MIB} MiB of the worker itself",
+                smaller)
+    return describe
 
 
 def run_block(inputs, site_overrides, args: dict, keep_velocities=False) -> dict:
@@ -234,7 +288,7 @@ WORKER_CONFIG = {"distributed.worker.profile.enabled": False}
 #: inputs instead of delaying each worker's first block (2.4-3.5 s on a loaded
 #: machine, docs/performance.md).
 WORKER_PRELOAD = ("workbench.blocks", "workbench.comparison", "workbench.drydep.codeposition",
-                  "workbench.drydep.wesely1989")
+                  "workbench.drydep.wesely1989", "workbench.dasklog")
 
 
 #: Launcher of the worker processes of a local cluster (:func:`start_client`), a shell
@@ -273,11 +327,12 @@ def _worker_launcher(python):
     return path
 
 
-def start_client(workers=None, scheduler=None):
+def start_client(workers=None, scheduler=None, log=None):
     """A ``dask.distributed`` client: on `scheduler` (an address) or on a local cluster
     of `workers` single-threaded processes (without the variables of
     :data:`UNSET_WORKER_ENVIRON`; each ignores Ctrl-C, :data:`WORKER_LAUNCHER`, and
-    imports :data:`WORKER_PRELOAD` as it starts).
+    imports :data:`WORKER_PRELOAD` as it starts; with `log`, a path, each worker's
+    log records go to that file, :func:`workbench.dasklog.dask_setup`).
     The caller closes it (:func:`close_client`)."""
     from .optional import require
     distributed = require("distributed")
@@ -293,6 +348,8 @@ def start_client(workers=None, scheduler=None):
                 f"could not reach the dask scheduler at {scheduler}: {exc}; expected the "
                 "address of a running scheduler (`dask scheduler` prints it, e.g. "
                 "tcp://host:8786), reachable from this machine") from None
+    import os
+
     import dask
     unset = {f"distributed.nanny.pre-spawn-environ.{name}": None
              for name in UNSET_WORKER_ENVIRON}
@@ -305,7 +362,9 @@ def start_client(workers=None, scheduler=None):
         if launcher:
             spawn.set_executable(launcher)
         # None: not set (both read when the nannies are made)
-        with dask.config.set({**unset, **WORKER_CONFIG}):
+        from .dasklog import CONFIG_KEY
+        logged = {CONFIG_KEY: os.fspath(log)} if log is not None else {}
+        with dask.config.set({**unset, **WORKER_CONFIG, **logged}):
             cluster = distributed.LocalCluster(n_workers=int(workers), threads_per_worker=1,
                                                dashboard_address=None,
                                                preload=list(WORKER_PRELOAD))
@@ -339,13 +398,15 @@ class ClusterStart:
     ----------
     workers : int
         Worker processes [-].
+    log : path, optional
+        Where the workers' log records go (:func:`start_client`).
     """
 
-    def __init__(self, workers):
+    def __init__(self, workers, log=None):
         import threading
         from .optional import require
         require("distributed")       # imported here: a missing extra is named at once
-        self.workers = int(workers)
+        self.workers, self.log = int(workers), log
         self._client = self._error = None
         self._closed = False
         self._thread = threading.Thread(target=self._start, name="workbench-cluster-start",
@@ -354,7 +415,7 @@ class ClusterStart:
 
     def _start(self):
         try:
-            self._client = start_client(self.workers)
+            self._client = start_client(self.workers, log=self.log)
         except BaseException as exc:          # raised by result(), in the caller's thread
             self._error = exc
 
@@ -487,9 +548,18 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
 
         first = [f for f in (submit() for _ in range(window)) if f is not None]
         queue = distributed.as_completed(first)
-        for n, fut in enumerate(queue, 1):
-            i = futures.pop(fut)
-            done[i] = fut.result()      # a failed block raises its error here
+        # workers with too little memory for a block: one message, no traceback and no
+        # wait for ever (workbench.worker_memory); the words name the block waited for
+        def size(i):                        # site-receptor pairs of block i
+            return len(blocks[i]) * len(wanted[i][1])
+        now = [max(futures.values(), key=size, default=0)]
+        watcher = watch(client, describe_block(blocks, wanted, now, inputs.met, block_sites),
+                        "the run")
+        for n, fut in enumerate(completed(queue, watcher), 1):
+            i = now[0] = futures.pop(fut)
+            done[i] = task_result(fut, watcher)      # a failed block raises its error here
+            # while waiting: the largest block in flight
+            now[0] = max(futures.values(), key=size, default=i)
             fut.release()
             say(f"block {n}/{len(blocks)} done ({_n_sites(len(blocks[i]))})")
             nxt = submit()

@@ -207,10 +207,13 @@ def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=No
     from .writers import RunFolder, write_run
     sc = load_scenario(scenario_path)
     say = (lambda text: None) if quiet else (lambda text: print(text, file=sys.stderr))
-    with RunFolder(out, {"scenario": sc.path, **sc.input_paths()}, overwrite, say=say) as folder:
+    from .dasklog import run_log
+    with RunFolder(out, {"scenario": sc.path, **sc.input_paths()}, overwrite, say=say) as folder, \
+            run_log(folder, active=bool(workers or scheduler)) as log:
+        # distributed's own messages go to dask.log of the run folder (workbench.dasklog);
         # a local cluster starts (and its workers import the package) while the inputs
         # are read; closed after the blocks, or after an error here
-        cluster = _early_cluster(sc, workers, scheduler)
+        cluster = _early_cluster(sc, workers, scheduler, log)
         steps = ["sites", "precipitation", "air", "met", "budget", "outputs"]
         # a bar on a terminal; one line per stage on a log file or a pipe (cliprogress)
         bar = StageProgress(len(steps), quiet)
@@ -268,17 +271,18 @@ def default_block_sites(n_years) -> int:
     return max(1, min(blocks.DEFAULT_MAX_BLOCK, BLOCK_SITE_YEARS // max(1, int(n_years))))
 
 
-def _early_cluster(sc, workers, scheduler):
+def _early_cluster(sc, workers, scheduler, log=None):
     """A :class:`workbench.blocks.ClusterStart` of `workers` processes for ``workbench
     run --workers`` (None with ``--scheduler``, which connects when the blocks start,
-    and when the scenario's ``[uncertainty]`` draws refuse block mode)."""
+    and when the scenario's ``[uncertainty]`` draws refuse block mode); its workers'
+    log records go to `log` (a path)."""
     if not workers or scheduler:
         return None
     unc = sc.options.get("uncertainty")
     if unc is not None and getattr(unc, "draws", 0):
         return None
     from .blocks import ClusterStart
-    return ClusterStart(workers)
+    return ClusterStart(workers, log=log)
 
 
 def changed_inputs(out: Path) -> list:
@@ -300,6 +304,7 @@ def cmd_run(args) -> int:
     print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
     for name in written:
         print(f"  {name}")
+    _dask_log_note(args.out)                 # warnings of the workers, if any
     from .writers import changed_note
     for path in changed_inputs(Path(args.out)):         # edited after the run read it
         print(f"warning: {changed_note(path, None)}", file=sys.stderr)
@@ -456,7 +461,18 @@ def cmd_grid(args) -> int:
     print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
     for name in written:
         print(f"  {name}")
+    _dask_log_note(args.out)                 # warnings of the workers, if any
     return 0
+
+
+def _dask_log_note(out):
+    """A note on stderr naming ``dask.log`` of the run folder `out`, when distributed
+    warned during the run (:mod:`workbench.dasklog`)."""
+    from .dasklog import LOG_NAME
+    log = Path(out) / LOG_NAME
+    if log.is_file():
+        print(f"note: distributed's own warnings (worker memory, restarts): {log.resolve()}",
+              file=sys.stderr)
 
 
 def _positive(text) -> int:

@@ -38,7 +38,7 @@ from .budget import COMPONENTS, BudgetOptions
 from .drycomponents import dry_components, dry_rows, prepare_velocities
 from .errors import WorkbenchError
 from .grid_io import Grid, block_catalogue, cell_ids, cut, read_block
-from .grid_cluster import completed, result, watch
+from .worker_memory import completed, result, watch
 from .grid_scratch import block_major
 from .io.common import release_free_memory
 from .io.sites import SiteCatalogue
@@ -447,7 +447,7 @@ BLOCKS_IN_FLIGHT_PER_WORKER = 2
 
 
 def _describe_block(block, n_hours, layout):
-    """The words of :func:`workbench.grid_cluster.memory_error` for a block task."""
+    """The words of :func:`workbench.worker_memory.memory_error` for a block task."""
     ys, xs = layout[0][0]
     by, bx = ys.stop - ys.start, xs.stop - xs.start
 
@@ -519,8 +519,8 @@ def store_grid(grid: Grid, target, dry_options, budget_options, periods, fixed_v
                  if f is not None]
         queue = distributed.as_completed(first)
         # as they end; workers with too little memory for a block: one message, no hang
-        # (workbench.grid_cluster)
-        watcher = watch(client, _describe_block(block, len(grid.times), layout))
+        # (workbench.worker_memory)
+        watcher = watch(client, _describe_block(block, len(grid.times), layout), "the grid")
         for n, fut in enumerate(completed(queue, watcher), 1):
             ys, xs = futures.pop(fut)
             # a failed block raises its error here

@@ -364,15 +364,16 @@ def grid_paths(sc) -> dict:
 
 
 @contextlib.contextmanager
-def _cluster(workers=None, scheduler=None):
-    """A dask client for the blocks (:func:`workbench.blocks.start_client`), closed with
-    the cluster it started at the end; None without `workers` and `scheduler`."""
+def _cluster(workers=None, scheduler=None, log=None):
+    """A dask client for the blocks (:func:`workbench.blocks.start_client`; the log
+    records of the workers it starts go to `log`, a path), closed with the cluster it
+    started at the end; None without `workers` and `scheduler`."""
     if not (workers or scheduler):
         yield None
         return
     import logging
     from .blocks import start_client
-    client = start_client(workers, scheduler)
+    client = start_client(workers, scheduler, log=log)
     try:
         yield client
     finally:
@@ -451,9 +452,12 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
         import importlib.util
         use_dask = importlib.util.find_spec("dask") is not None
     started = _dt.datetime.now(_dt.timezone.utc)
+    from .dasklog import run_log
+    # distributed's own messages go to dask.log of the run folder (workbench.dasklog)
     with _terminate_as_interrupt(), \
             RunFolder(out, {"scenario": sc.path, **paths}, overwrite, say=say) as folder, \
-            _cluster(workers, scheduler) as client:
+            run_log(folder, active=bool(workers or scheduler)) as log, \
+            _cluster(workers, scheduler, log) as client:
         # read lazily, block by block: hashed just before they are opened, and again at
         # the end (an edit meanwhile is named in provenance.json, by content)
         read = {role: file_stamp(p) for role, p in paths.items()}   # None: open_grid says

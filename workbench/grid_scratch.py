@@ -40,7 +40,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .grid_cluster import result, watch
+from .worker_memory import result, watch
 from .grid_io import GridError, _open, read_values
 from .io.zarrstore import LARGE_CHUNK_BYTES, chunk_sizes
 from .runfolder import OutputError, os_error_message
@@ -246,7 +246,7 @@ def _no_chunk_cache(path):
 
 
 def _describe_copy(path, name, chunk, itemsize, shape):
-    """The words of :func:`workbench.grid_cluster.memory_error` for the copy of one
+    """The words of :func:`workbench.worker_memory.memory_error` for the copy of one
     variable: its chunk of the whole plane, decompressed whole."""
     nbytes = int(np.prod((chunk[0],) + tuple(shape))) * itemsize
 
@@ -333,9 +333,9 @@ def block_major(grid, layout, folder=None, say=None, client=None):
                                         file, pure=False)
                     try:
                         # a failed copy raises its error here; workers with too little
-                        # memory for a chunk, one message (workbench.grid_cluster)
+                        # memory for a chunk, one message (workbench.worker_memory)
                         files[name] = result(fut, watch(client, _describe_copy(
-                            path, name, *chunks[name], grid.shape)))
+                            path, name, *chunks[name], grid.shape), "the grid"))
                     finally:
                         fut.release()
                         del fut
