@@ -226,6 +226,13 @@ def _check_option_section(section, cls, given, path, lines):
             conv["seasonal_category"] = tuple(conv["seasonal_category"])
         return cls(**conv)
     except (ValueError, TypeError) as exc:
+        item = getattr(exc, "option_item", None)
+        if item is not None:          # one entry of a table option (a [sensitivity] factor)
+            key = exc.option_key
+            line = (_line_of(lines, f"{section}.{key}", item)
+                    or _line_of(lines, section, key))
+            raise ScenarioError(f"invalid value ({exc})", file=path, line=line,
+                                column=f"{section}.{key}.{item}") from None
         key = next(iter(given), None)
         for k in given:
             if k in str(exc):
