@@ -194,7 +194,7 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
         Outputs of :data:`OUTPUTS` [mol m-2; eq ha-1 for the acidity].
     coords : dict
         ``site``, ``receptor``, ``period`` labels, ``data``: :func:`data_notes` of the
-        budget, and ``pairs``: the (site, receptor) pairs of the budget's rows (each
+        budget, ``engine_runs``: the number of pipeline runs, and ``pairs``: the (site, receptor) pairs of the budget's rows (each
         site's own surfaces; the grid of the arrays holds every receptor of the network
         at every site).
     """
@@ -231,6 +231,7 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
             tot = linear_outputs(layer, s, values, len(rows))
             for q, (_, _, key_) in enumerate(OUTPUTS):
                 y[rows, s, :, :, q] = tot[key_]
+    coords["engine_runs"] = len(groups)
     return y, coords
 
 
@@ -255,7 +256,8 @@ def sobol(study, base_options: dict, options: SensitivityOptions, run_kwargs=Non
         Columns ``site, receptor, period, element, quantity, factor, S1, S1_conf, ST,
         ST_conf`` [1] and ``note`` (:func:`row_note`: an index 0 for want of data, a
         total lacking components); outputs that do not vary (a missing total) are left
-        out.
+        out.  ``attrs``: ``evaluations`` (rows of the sample, N (k + 2)) and
+        ``engine_runs`` (pipeline runs among them).
     """
     prob = problem(options)
     x = saltelli_sample(prob, options.samples, options.seed)
@@ -271,8 +273,10 @@ def sobol(study, base_options: dict, options: SensitivityOptions, run_kwargs=Non
                          si["ST"][i], si["ST_conf"][i],
                          row_note(name, el, quantity, coords["data"][(s, r, p)],
                                   coords["bulk"].get((s, p)))))
-    return pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
-                                       "factor", "S1", "S1_conf", "ST", "ST_conf", "note"])
+    frame = pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
+                                        "factor", "S1", "S1_conf", "ST", "ST_conf", "note"])
+    frame.attrs.update(evaluations=len(x), engine_runs=coords["engine_runs"])
+    return frame
 
 
 def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=None,
@@ -290,7 +294,7 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
         N per reporting period ([eq ha-1] for the acidity), the unit of each row named
         in ``unit`` (:func:`output_unit`, e.g. ``kg S ha-1 yr-1`` for yearly periods;
         tornado.csv mixes the three elements), ``note`` as in
-        :func:`sobol`.
+        :func:`sobol`; ``attrs`` as :func:`sobol`'s (2 k + 1 evaluations).
     """
     from ..units import element_deposition_in
     names = list(options.factors)
@@ -332,9 +336,11 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
                          conv(lo), conv(hi), b, unit,
                          row_note(nm, el, quantity, coords["data"][(s, r, p)],
                                   coords["bulk"].get((s, p)))))
-    return pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
-                                       "factor", "low", "high", "base", "output_low",
-                                       "output_high", "output_base", "unit", "note"])
+    frame = pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
+                                        "factor", "low", "high", "base", "output_low",
+                                        "output_high", "output_base", "unit", "note"])
+    frame.attrs.update(evaluations=len(x), engine_runs=coords["engine_runs"])
+    return frame
 
 
 def data_notes(ds) -> dict:
@@ -543,8 +549,14 @@ def _write_sensitivity(sc, out, quiet, run_folder=None):
         t, index=False, float_format="%.6g")),
         "tornado.csv": atomic_write(out / "tornado.csv", lambda t: torn.to_csv(
             t, index=False, float_format="%.6g"))}
+    from .sensitivity_design import design
+    record = design(opt, {"sobol_evaluations": frame.attrs["evaluations"],
+                          "sobol_engine_runs": frame.attrs["engine_runs"],
+                          "tornado_evaluations": torn.attrs["evaluations"],
+                          "tornado_engine_runs": torn.attrs["engine_runs"]},
+                    dry=sc.options["dry"], budget=sc.options["budget"])
     html = sensitivity_html(frame, torn, period=_headline_period(
-        study, frame, p["resolution"], sc.options["wet"].hydro_start_month))
+        study, frame, p["resolution"], sc.options["wet"].hydro_start_month), design=record)
     written["sensitivity.html"] = atomic_write(out / "sensitivity.html",
                                                lambda t: t.write_text(html, encoding="utf-8"))
     from ..csvcaution import CAUTION_FILE, write_folder_caution
@@ -559,6 +571,7 @@ def _write_sensitivity(sc, out, quiet, run_folder=None):
     prov["outputs"] = names + ["provenance.json"]
     prov["output_sha256"] = {n: sha256(out / n) for n in names}
     prov["sites"] = [str(s) for s in study.inputs.catalogue.ids]
+    prov["sensitivity_design"] = record      # runs, seed, factors and what was held
     base = scenario_base(sc)
     prov["run_notes"] = [changed_note(p, base) for p in changed.values()]
     written["provenance.json"] = atomic_write(
@@ -608,10 +621,13 @@ def _headline_period(study, frame, resolution, hydro_start_month=10):
     return str(table["label"].iloc[0]) if len(table) else None
 
 
-def sensitivity_html(frame: pd.DataFrame, torn: pd.DataFrame, period=None) -> str:
+def sensitivity_html(frame: pd.DataFrame, torn: pd.DataFrame, period=None,
+                     design=None) -> str:
     """An HTML page with the Sobol bars and the tornado of every total of the first
     (site, receptor) of `frame` and its last period (`period`, when given and among the
-    pair's periods: :func:`_headline_period`, the last period a sample starts in)."""
+    pair's periods: :func:`_headline_period`, the last period a sample starts in), and,
+    with `design` (:func:`workbench.analysis.sensitivity_design.design`), what was
+    varied over which range, the model runs, the seed and what was held fixed."""
     import html as _html
 
     import plotly.io as pio
@@ -629,6 +645,9 @@ def sensitivity_html(frame: pd.DataFrame, torn: pd.DataFrame, period=None) -> st
                  "ends of its range. The indices rank the factors within the ranges given "
                  "in [sensitivity] only (docs/scenario.md); a factor left out has no "
                  "index.") + "</p>"]
+    if design is not None:
+        from .sensitivity_design import design_html
+        parts.append(design_html(design))
     if frame.empty:
         parts.append("<p>No total varies with the factors given.</p>")
     else:
