@@ -64,3 +64,28 @@ def test_a_sensitivity_folder_carries_the_record(tiny, tmp_path, capsys):
     assert "What was varied" in html and "<code>vd_SO2</code></td><td>0.5 to 1.5" in html
     assert "met, always_wet" in html and "Not varied" in html
     assert "S1: first-order index" in html
+
+
+def test_the_figure_labels_a_factor_without_data_and_a_partial_total():
+    """fell of the demo measures no NO2: vd_NO2's bars of N dry are empty for want of
+    data, and N dry lacks NO2.  The CSV said so in its note; the figure showed an empty
+    bar beside measured ones and a title as of a complete total."""
+    import pandas as pd
+    from workbench.ui.figures_sensitivity import sensitivity_spec
+    keys = {"site": "fell", "receptor": "grass", "period": "2022", "element": "N",
+            "quantity": "dry"}
+    lacks = "the total lacks NO2: indices of its measured part"
+    idle = "no effect for want of data: dry NO2 not measured at the site; " + lacks
+    rows = (("vd_NH3", 0.8, 0.85, lacks), ("vd_NO2", 0.0, 0.0, idle),
+            ("gauge_catch", 0.0, 0.0, lacks))
+    sob = pd.DataFrame([{**keys, "factor": f, "S1": a, "S1_conf": 0.0, "ST": b,
+                         "ST_conf": 0.0, "note": n} for f, a, b, n in rows])
+    tor = pd.DataFrame([{**keys, "factor": f, "low": "0.5", "high": "2", "base": "1",
+                         "output_low": 3.0, "output_high": 3.0 + b, "output_base": 3.0,
+                         "unit": "kg N ha-1 yr-1", "note": n} for f, _, b, n in rows])
+    spec = sensitivity_spec(sob, tor, "fell", "grass", "2022", "N", "dry")
+    for trace in spec["data"]:
+        assert "vd_NO2 (no data)" in trace["y"] and "vd_NH3" in trace["y"]
+        assert "gauge_catch" in trace["y"]             # a plain nil: no data note, no label
+    assert spec["layout"]["title"]["text"].endswith(
+        "(lacks NO2: indices of its measured part)")

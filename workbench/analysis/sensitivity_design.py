@@ -134,6 +134,6 @@ def design_html(d: dict) -> str:
             f"{esc('; '.join(d['not_varied']))}.</p>"
             "<p>S1: first-order index, the share of the output's variance the factor explains "
             "alone; ST: total index, with all its interactions (ST >= S1; the S1 add up to "
-            "1 or less, the ST to 1 or more); S1_conf and ST_conf: half-widths of their 95 % "
+            "1 or less, the ST to 1 or more, each within its sampling error); S1_conf and ST_conf: half-widths of their 95 % "
             "bootstrap intervals [1]. The tornado's outputs are the deposition of the "
             "period in the unit on its axis.</p>")
