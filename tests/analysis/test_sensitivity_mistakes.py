@@ -78,3 +78,25 @@ def test_samples_not_a_power_of_two_names_the_nearest(tmp_path, n, near):
     err, lines = _error(tmp_path, HEAD + f"samples = {n}\n")
     assert lines[err.line - 1] == f"samples = {n}" and err.column == "sensitivity.samples"
     assert f"must be a power of 2 (e.g. {near};" in str(err)
+
+
+def test_a_roughness_or_gamma_factor_of_a_class_the_site_lacks_says_so(tiny):
+    """The tiny site is grass only: ``z0_crops`` and ``nh3_gamma_crops`` have nothing to
+    act on there.  Before, their indices and tornado ends were 0 with an empty note, as
+    a measured nil effect; now the note says the site has no crops surface."""
+    from workbench.analysis import sensitivity as S
+    sc, study, _, _ = tiny
+    opt = SensitivityOptions(samples=4, seed=1, factors={
+        "vd_SO2": (0.5, 1.5), "z0_crops": (0.05, 0.2), "z0_grass": (0.01, 0.05)})
+    base = {"wet": sc.options["wet"], "dry": sc.options["dry"], "budget": sc.options["budget"],
+            "fixed_velocity": sc.fixed_velocity}
+    kw = {"resolution": "month", "start": "2021-02-01", "end": "2021-03-01"}
+    for frame in (S.sobol(study, base, opt, kw), S.tornado(study, base, opt, kw)):
+        crops = frame[frame["factor"] == "z0_crops"]
+        assert len(crops) and crops["note"].str.startswith(
+            "no effect: the site has no crops surface (its classes: grass").all()
+        grass = frame[frame["factor"] == "z0_grass"]
+        assert not grass["note"].str.contains("has no grass surface").any()
+    assert S.row_note("nh3_gamma_crops", "N", "dry", ({}, {}), classes=("grass",)) == (
+        "no effect: the site has no crops surface (its classes: grass)")
+    assert S.row_note("nh3_gamma_grass", "N", "dry", ({}, {}), classes=("grass",)) == ""

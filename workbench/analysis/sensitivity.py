@@ -222,6 +222,7 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
             coords["data"] = data_notes(ds)
             table = res.table
             coords["pairs"] = set(zip(table["site"].astype(str), table["receptor"].astype(str)))
+            coords["classes"] = site_classes(study.catalogue(run_kwargs.get("overrides")))
             coords["bulk"] = {(k, p): bool(any(bp.b[p] > 0 for bp in ls.bulk_part.values()))
                               for k, ls in enumerate(layer.sites)
                               for p in range(ds.sizes["period"])}
@@ -272,7 +273,8 @@ def sobol(study, base_options: dict, options: SensitivityOptions, run_kwargs=Non
             rows.append((*cell, el, quantity, name, si["S1"][i], si["S1_conf"][i],
                          si["ST"][i], si["ST_conf"][i],
                          row_note(name, el, quantity, coords["data"][(s, r, p)],
-                                  coords["bulk"].get((s, p)))))
+                                  coords["bulk"].get((s, p)),
+                                  coords["classes"].get(cell[0]))))
     frame = pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
                                         "factor", "S1", "S1_conf", "ST", "ST_conf", "note"])
     frame.attrs.update(evaluations=len(x), engine_runs=coords["engine_runs"])
@@ -335,7 +337,8 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
                          _label(nm, options, x[2 + 2 * i, i]), _label(nm, options, base[i]),
                          conv(lo), conv(hi), b, unit,
                          row_note(nm, el, quantity, coords["data"][(s, r, p)],
-                                  coords["bulk"].get((s, p)))))
+                                  coords["bulk"].get((s, p)),
+                                  coords["classes"].get(cell[0]))))
     frame = pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
                                         "factor", "low", "high", "base", "output_low",
                                         "output_high", "output_base", "unit", "note"])
@@ -411,7 +414,18 @@ def with_bulk_factor(options: SensitivityOptions, budget_options, catalogue) -> 
                                                  "bulk_wet_factor": BULK_FACTOR_RANGE})
 
 
-def row_note(name, element, quantity, data, has_bulk=None) -> str:
+def site_classes(catalogue) -> dict:
+    """site id -> the land-use classes its engine runs use: its surfaces (own land use and
+    receptors), the class under its wind mast (``met_land_use``) and the classes before
+    a declared land-use change."""
+    from ..surfacehistory import earlier_classes, land_use_history
+    earlier = earlier_classes(land_use_history(catalogue))
+    return {s.id: tuple(dict.fromkeys(
+        tuple(s.surfaces) + ((s.met_land_use,) if getattr(s, "met_land_use", None) else ())
+        + tuple(earlier.get(s.id, ())))) for s in catalogue}
+
+
+def row_note(name, element, quantity, data, has_bulk=None, classes=None) -> str:
     """The note of a row of sensitivity.csv or tornado.csv [text] ("" for none).
 
     An index 0 because the factor reaches only components without data at the site
@@ -430,6 +444,10 @@ def row_note(name, element, quantity, data, has_bulk=None) -> str:
     has_bulk : bool, optional
         The cell's wet has a bulk-collector part (``scale_wet``); False says that
         ``bulk_wet_factor`` has no effect there.
+    classes : tuple, optional
+        The land-use classes of the site (:func:`site_classes`): a ``z0_<class>`` or
+        ``nh3_gamma_<class>`` of another class has nothing to act on there (its zeros
+        read as a measured nil effect before).
     """
     from ..budget import COMPONENTS
     lacking, idle = data
@@ -443,6 +461,12 @@ def row_note(name, element, quantity, data, has_bulk=None) -> str:
         if reach and all(c in idle for c in reach):
             parts.append("no effect for want of data: " + "; ".join(
                 f"{path} {sp} {idle[(path, sp)]}" for path, sp in reach))
+    kind = factor_kind(name)
+    if kind in ("z0", "nh3_gamma") and classes is not None:
+        cls = name[len("z0_"):] if kind == "z0" else name[len("nh3_gamma_"):]
+        if cls not in classes:
+            parts.append(f"no effect: the site has no {cls} surface (its classes: "
+                         f"{', '.join(classes)})")
     if (name == "bulk_wet_factor" and has_bulk is False and not parts
             and quantity in ("wet", "total", "potential_acidity")):
         parts.append("no effect: no bulk-collector samples at the site in the period")
