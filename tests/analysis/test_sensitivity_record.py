@@ -60,6 +60,8 @@ def test_a_sensitivity_folder_carries_the_record(tiny, tmp_path, capsys):
     assert "air_conc" in held and "vd_NH3" in held and "z0_<land use>" in held
     assert f"N (k + 2) = {opt.samples * (k + 2)} model evaluations" in console
     assert "not varied: at 1: " in console
+    assert opt.samples == 8 and console.startswith("caution: N = 8 is below 64")
+    assert d["widest_interval"] > 0
     html = (out / "sensitivity.html").read_text()
     assert "What was varied" in html and "<code>vd_SO2</code></td><td>0.5 to 1.5" in html
     assert "met, always_wet" in html and "Not varied" in html
@@ -89,3 +91,24 @@ def test_the_figure_labels_a_factor_without_data_and_a_partial_total():
         assert "gauge_catch" in trace["y"]             # a plain nil: no data note, no label
     assert spec["layout"]["title"]["text"].endswith(
         "(lacks NO2: indices of its measured part)")
+
+
+def test_too_few_samples_is_flagged_with_the_widest_interval():
+    """samples = 8 is accepted (a power of 2) but its indices are noise: on the Ishigami
+    function at N = 8 SALib gives S1 = 0.59, -0.04, 0.17 against 0.31, 0.44, 0 (with
+    intervals up to +-1.2; seed 12345, measured).  Before, nothing said so but the
+    `_conf` columns."""
+    from workbench.analysis.sensitivity_design import design, design_html, design_lines
+    counts = {"sobol_evaluations": 32, "sobol_engine_runs": 1, "tornado_evaluations": 5,
+              "tornado_engine_runs": 1}
+    few = design(SensitivityOptions(samples=8, factors={"vd_SO2": (0.5, 1.5),
+                                                        "air_conc": (0.9, 1.1)}),
+                 {**counts, "widest_interval": 1.234})
+    assert few["too_few_samples"].startswith("N = 8 is below 64")
+    assert "+-1.2" in few["too_few_samples"]
+    assert design_lines(few)[0].startswith("caution: N = 8 is below 64")
+    assert "<b>Caution.</b> N = 8 is below 64" in design_html(few)
+    enough = design(SensitivityOptions(samples=64, factors={"vd_SO2": (0.5, 1.5),
+                                                            "air_conc": (0.9, 1.1)}), counts)
+    assert enough["too_few_samples"] is None
+    assert not design_lines(enough)[0].startswith("caution")

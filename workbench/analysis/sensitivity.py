@@ -577,7 +577,9 @@ def _write_sensitivity(sc, out, quiet, run_folder=None):
     record = design(opt, {"sobol_evaluations": frame.attrs["evaluations"],
                           "sobol_engine_runs": frame.attrs["engine_runs"],
                           "tornado_evaluations": torn.attrs["evaluations"],
-                          "tornado_engine_runs": torn.attrs["engine_runs"]},
+                          "tornado_engine_runs": torn.attrs["engine_runs"],
+                          "widest_interval": (float(frame[["S1_conf", "ST_conf"]].max().max())
+                                              if len(frame) else None)},
                     dry=sc.options["dry"], budget=sc.options["budget"])
     html = sensitivity_html(frame, torn, period=_headline_period(
         study, frame, p["resolution"], sc.options["wet"].hydro_start_month), design=record)

@@ -31,6 +31,10 @@ ENGINE_TEXT = {"wetness_rule": ("the surface-wetness rule, one of the rules list
 ENGINE_FAMILIES = {"wetness_rule": "wetness_rule", "fine_fraction": "fine_fraction_<particle>",
                    "fine_mmd": "fine_mmd_<particle>", "z0": "z0_<land use>",
                    "rc_scale": "rc_scale_<gas>", "nh3_gamma": "nh3_gamma_<land use>"}
+#: The least base sample N read as enough to rank about ten factors (common practice,
+#: the default of ``samples``; docs/methods_uncertainty.md measures the error of S1 at
+#: N = 64 as about 0.1 on the demo's site-month).  A smaller N is flagged.
+SAMPLES_ENOUGH = 64
 #: What the Sobol factors never hold: the random per-sample errors (the Monte Carlo's).
 RANDOM_ERRORS = ("the random errors of each sample (analysis precision, depth reading, "
                  "values below detection, gap-filled Vd and PWM): the Monte Carlo's, "
@@ -72,7 +76,8 @@ def design(options: SensitivityOptions, counts: dict, dry=None, budget=None) -> 
     counts : dict
         ``sobol_evaluations``, ``sobol_engine_runs``, ``tornado_evaluations``,
         ``tornado_engine_runs`` (:func:`workbench.analysis.sensitivity.sobol` and
-        ``tornado`` keep them in their frames' ``attrs``).
+        ``tornado`` keep them in their frames' ``attrs``); optionally
+        ``widest_interval``, the largest ``S1_conf`` or ``ST_conf`` [1].
     dry, budget : DryOptions, BudgetOptions, optional
         The scenario's, for the values held (the wetness rule) and whether the bulk
         factor applies (``bulk_correction = "scale_wet"``).
@@ -81,7 +86,8 @@ def design(options: SensitivityOptions, counts: dict, dry=None, budget=None) -> 
     -------
     dict
         ``samples``, ``seed``, the counts, ``factors`` (name -> ``{"range", "varies"}``),
-        ``not_varied`` (list of text).
+        ``not_varied`` (list of text), ``widest_interval`` and ``too_few_samples`` (a
+        caution where N < :data:`SAMPLES_ENOUGH`, else None).
     """
     names = list(options.factors)
     held = []
@@ -95,7 +101,16 @@ def design(options: SensitivityOptions, counts: dict, dry=None, budget=None) -> 
     if engine:
         held.append("at the scenario's values: " + ", ".join(engine))
     held.append(RANDOM_ERRORS)
-    return {"samples": options.samples, "seed": options.seed, **dict(counts),
+    counts = dict(counts)
+    widest = counts.pop("widest_interval", None)
+    few = None
+    if options.samples < SAMPLES_ENOUGH:
+        few = (f"N = {options.samples} is below {SAMPLES_ENOUGH}: the indices are a first "
+               "look, not a ranking"
+               + (f" (the widest 95 % interval is +-{widest:.2g})" if widest is not None else "")
+               + f"; set [sensitivity] samples = {SAMPLES_ENOUGH} or more")
+    return {"samples": options.samples, "seed": options.seed, **counts,
+            "widest_interval": widest, "too_few_samples": few,
             "factors": {n: {"range": list(options.factors[n]), "varies": factor_text(n)}
                         for n in names},
             "not_varied": held}
@@ -115,6 +130,8 @@ def design_lines(d: dict) -> list:
            f"({runs(d['tornado_engine_runs'])}), each factor at the low and high end of its "
            "range (not percentiles: a uniform range's 0 % and 100 %), the others at their base",
            "not varied: " + "; ".join(d["not_varied"])]
+    if d.get("too_few_samples"):
+        out.insert(0, "caution: " + d["too_few_samples"])
     return out
 
 
@@ -122,11 +139,13 @@ def design_html(d: dict) -> str:
     """The record :func:`design` as a section of sensitivity.html."""
     import html
     esc = html.escape
-    lines = design_lines(d)
+    lines = [ln for ln in design_lines(d) if not ln.startswith("caution: ")]
+    few = (f"<p class='few' style='background:#fde2e2;padding:.4em 1em'><b>Caution.</b> "
+           f"{esc(d['too_few_samples'])}.</p>" if d.get("too_few_samples") else "")
     rows = "".join(f"<tr><td><code>{esc(n)}</code></td><td>{esc(_range_text(n, f['range']))}"
                    f"</td><td>{esc(f['varies'])}</td></tr>" for n, f in d["factors"].items())
-    return ("<h2>What was varied</h2>"
-            f"<p class='runs'>{esc(lines[0])}; {esc(lines[1])}.</p>"
+    return ("<h2>What was varied</h2>" + few
+            + f"<p class='runs'>{esc(lines[0])}; {esc(lines[1])}.</p>"
             "<table border='1' style='border-collapse:collapse' cellpadding='4'>"
             "<tr><th>factor</th><th>range (uniform)</th><th>what it varies</th></tr>"
             f"{rows}</table>"
@@ -134,6 +153,7 @@ def design_html(d: dict) -> str:
             f"{esc('; '.join(d['not_varied']))}.</p>"
             "<p>S1: first-order index, the share of the output's variance the factor explains "
             "alone; ST: total index, with all its interactions (ST >= S1; the S1 add up to "
-            "1 or less, the ST to 1 or more, each within its sampling error); S1_conf and ST_conf: half-widths of their 95 % "
-            "bootstrap intervals [1]. The tornado's outputs are the deposition of the "
+            "1 or less, the ST to 1 or more, each within its sampling error); S1_conf and "
+            "ST_conf: half-widths of their 95 % bootstrap intervals [1]. The tornado's "
+            "outputs are the deposition of the "
             "period in the unit on its axis.</p>")
