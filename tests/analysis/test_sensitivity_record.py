@@ -112,3 +112,29 @@ def test_too_few_samples_is_flagged_with_the_widest_interval():
                                                             "air_conc": (0.9, 1.1)}), counts)
     assert enough["too_few_samples"] is None
     assert not design_lines(enough)[0].startswith("caution")
+
+
+def test_a_span_without_data_says_so_rather_than_no_total_varies(tiny, tmp_path, capsys):
+    """[period] of a year after the record: the budget is missing everywhere.  Before,
+    the command wrote two header-only CSV files without a word and the page said "No
+    total varies with the factors given"; now the console and the page say that the
+    span holds none of the inputs (the words of `workbench run`'s warning)."""
+    import shutil
+    from workbench.cli import main
+    shared, _, _, _ = tiny
+    shutil.copytree(shared.path.parent, tmp_path / "proj")
+    path = tmp_path / "proj" / shared.path.name
+    path.write_text(path.read_text().replace('start = "2021-02-01"', 'start = "2030-02-01"')
+                    .replace('end = "2021-03-01"', 'end = "2030-03-01"'))
+    out = tmp_path / "sens"
+    capsys.readouterr()
+    assert main(["sensitivity", str(path), "--out", str(out), "--quiet"]) == 0
+    console = capsys.readouterr().out
+    assert console.startswith("warning: no total of the cells analysed varies, and "
+                              "sensitivity.csv holds no row: the reporting span 2030-02-01 "
+                              "to 2030-03-01 holds none of the precipitation")
+    html = (out / "sensitivity.html").read_text()
+    assert "No total varies with the factors given" not in html
+    assert "holds none of the air" in html
+    d = json.loads((out / "provenance.json").read_text())["sensitivity_design"]
+    assert d["no_rows"].startswith("no total of the cells analysed varies")

@@ -77,7 +77,8 @@ def design(options: SensitivityOptions, counts: dict, dry=None, budget=None) -> 
         ``sobol_evaluations``, ``sobol_engine_runs``, ``tornado_evaluations``,
         ``tornado_engine_runs`` (:func:`workbench.analysis.sensitivity.sobol` and
         ``tornado`` keep them in their frames' ``attrs``); optionally
-        ``widest_interval``, the largest ``S1_conf`` or ``ST_conf`` [1].
+        ``widest_interval``, the largest ``S1_conf`` or ``ST_conf`` [1], and ``no_rows``,
+        why sensitivity.csv holds no row (text, or None).
     dry, budget : DryOptions, BudgetOptions, optional
         The scenario's, for the values held (the wetness rule) and whether the bulk
         factor applies (``bulk_correction = "scale_wet"``).
@@ -87,7 +88,7 @@ def design(options: SensitivityOptions, counts: dict, dry=None, budget=None) -> 
     dict
         ``samples``, ``seed``, the counts, ``factors`` (name -> ``{"range", "varies"}``),
         ``not_varied`` (list of text), ``widest_interval`` and ``too_few_samples`` (a
-        caution where N < :data:`SAMPLES_ENOUGH`, else None).
+        caution where N < :data:`SAMPLES_ENOUGH`, else None), ``no_rows``.
     """
     names = list(options.factors)
     held = []
@@ -103,6 +104,7 @@ def design(options: SensitivityOptions, counts: dict, dry=None, budget=None) -> 
     held.append(RANDOM_ERRORS)
     counts = dict(counts)
     widest = counts.pop("widest_interval", None)
+    no_rows = counts.pop("no_rows", None)
     few = None
     if options.samples < SAMPLES_ENOUGH:
         few = (f"N = {options.samples} is below {SAMPLES_ENOUGH}: the indices are a first "
@@ -110,7 +112,7 @@ def design(options: SensitivityOptions, counts: dict, dry=None, budget=None) -> 
                + (f" (the widest 95 % interval is +-{widest:.2g})" if widest is not None else "")
                + f"; set [sensitivity] samples = {SAMPLES_ENOUGH} or more")
     return {"samples": options.samples, "seed": options.seed, **counts,
-            "widest_interval": widest, "too_few_samples": few,
+            "widest_interval": widest, "too_few_samples": few, "no_rows": no_rows,
             "factors": {n: {"range": list(options.factors[n]), "varies": factor_text(n)}
                         for n in names},
             "not_varied": held}
@@ -132,6 +134,8 @@ def design_lines(d: dict) -> list:
            "not varied: " + "; ".join(d["not_varied"])]
     if d.get("too_few_samples"):
         out.insert(0, "caution: " + d["too_few_samples"])
+    if d.get("no_rows"):
+        out.insert(0, "warning: " + d["no_rows"])
     return out
 
 
@@ -139,7 +143,7 @@ def design_html(d: dict) -> str:
     """The record :func:`design` as a section of sensitivity.html."""
     import html
     esc = html.escape
-    lines = [ln for ln in design_lines(d) if not ln.startswith("caution: ")]
+    lines = [ln for ln in design_lines(d) if not ln.startswith(("caution: ", "warning: "))]
     few = (f"<p class='few' style='background:#fde2e2;padding:.4em 1em'><b>Caution.</b> "
            f"{esc(d['too_few_samples'])}.</p>" if d.get("too_few_samples") else "")
     rows = "".join(f"<tr><td><code>{esc(n)}</code></td><td>{esc(_range_text(n, f['range']))}"
