@@ -138,3 +138,17 @@ def test_a_span_without_data_says_so_rather_than_no_total_varies(tiny, tmp_path,
     assert "holds none of the air" in html
     d = json.loads((out / "provenance.json").read_text())["sensitivity_design"]
     assert d["no_rows"].startswith("no total of the cells analysed varies")
+
+
+def test_the_sobol_explorer_gives_the_ranges_and_flags_few_samples(tiny):
+    """The explorer's line read "Factors and ranges: ... (vd_SO2, gauge_catch,
+    wetness_rule)", names without ranges, and 16 base samples (offered in its list) were
+    drawn without a word."""
+    from workbench.ui.app_sobol import SobolExplorer
+    from workbench.ui.session import Session
+    sc, _, _, _ = tiny
+    app = SobolExplorer(Session.open(sc.path), output="S dry", samples=16)
+    assert "<code>vd_SO2</code> 0.5 to 1.5 (multiplier of the dry deposition velocity of " \
+           "SO2 [1])" in app.note_w.value
+    assert "<code>wetness_rule</code> met, always_wet" in app.note_w.value
+    assert app.idle_w.value.startswith("Caution: N = 16 base samples is below 64")

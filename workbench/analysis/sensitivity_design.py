@@ -60,7 +60,8 @@ def factor_text(name: str) -> str:
     return (words.format(x=name[len(prefix):]) + (f" {unit}" if unit else "")).strip()
 
 
-def _range_text(name, rng) -> str:
+def range_text(name, rng) -> str:
+    """The range of factor `name` as read: ``0.5 to 2``, or the rules of a list."""
     if factor_kind(name) == "wetness_rule":
         return ", ".join(map(str, rng))
     return f"{rng[0]:g} to {rng[1]:g}"
@@ -146,7 +147,7 @@ def design_html(d: dict) -> str:
     lines = [ln for ln in design_lines(d) if not ln.startswith(("caution: ", "warning: "))]
     few = (f"<p class='few' style='background:#fde2e2;padding:.4em 1em'><b>Caution.</b> "
            f"{esc(d['too_few_samples'])}.</p>" if d.get("too_few_samples") else "")
-    rows = "".join(f"<tr><td><code>{esc(n)}</code></td><td>{esc(_range_text(n, f['range']))}"
+    rows = "".join(f"<tr><td><code>{esc(n)}</code></td><td>{esc(range_text(n, f['range']))}"
                    f"</td><td>{esc(f['varies'])}</td></tr>" for n, f in d["factors"].items())
     return ("<h2>What was varied</h2>" + few
             + f"<p class='runs'>{esc(lines[0])}; {esc(lines[1])}.</p>"
