@@ -100,3 +100,13 @@ def test_a_roughness_or_gamma_factor_of_a_class_the_site_lacks_says_so(tiny):
     assert S.row_note("nh3_gamma_crops", "N", "dry", ({}, {}), classes=("grass",)) == (
         "no effect: the site has no crops surface (its classes: grass)")
     assert S.row_note("nh3_gamma_grass", "N", "dry", ({}, {}), classes=("grass",)) == ""
+
+
+def test_a_site_written_as_text_not_a_list_shows_the_list(tmp_path):
+    """``sites = "fell"``: the message read "expected a array like the default ()"
+    (Python's empty tuple, and "a array")."""
+    text = HEAD.replace('sites = ["fell"]', 'sites = "fell"')
+    err, lines = _error(tmp_path, text)
+    assert lines[err.line - 1] == 'sites = "fell"' and err.column == "sensitivity.sites"
+    assert str(err).endswith("wrong type: got 'fell', expected an array like the default [] "
+                             '(e.g. ["fell"])')
