@@ -194,7 +194,8 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
         Outputs of :data:`OUTPUTS` [mol m-2; eq ha-1 for the acidity].
     coords : dict
         ``site``, ``receptor``, ``period`` labels, ``data``: :func:`data_notes` of the
-        budget, ``engine_runs``: the number of pipeline runs, and ``pairs``: the (site, receptor) pairs of the budget's rows (each
+        budget, ``engine_runs``: the number of pipeline runs, and ``pairs``: the
+        (site, receptor) pairs of the budget's rows (each
         site's own surfaces; the grid of the arrays holds every receptor of the network
         at every site).
     """
@@ -573,8 +574,9 @@ def _write_sensitivity(sc, out, quiet, run_folder=None):
         t, index=False, float_format="%.6g")),
         "tornado.csv": atomic_write(out / "tornado.csv", lambda t: torn.to_csv(
             t, index=False, float_format="%.6g"))}
-    from .sensitivity_design import design
-    record = design(opt, {"no_rows": _no_rows(study, frame, p), "sobol_evaluations": frame.attrs["evaluations"],
+    from .sensitivity_design import design, no_rows_text
+    record = design(opt, {"no_rows": no_rows_text(study.inputs, frame, p),
+                          "sobol_evaluations": frame.attrs["evaluations"],
                           "sobol_engine_runs": frame.attrs["engine_runs"],
                           "tornado_evaluations": torn.attrs["evaluations"],
                           "tornado_engine_runs": torn.attrs["engine_runs"],
@@ -604,25 +606,6 @@ def _write_sensitivity(sc, out, quiet, run_folder=None):
         out / "provenance.json",
         lambda t: t.write_text(json.dumps(prov, indent=2, default=str)))
     return list(written)
-
-
-def _no_rows(study, frame, period) -> str | None:
-    """Why sensitivity.csv holds no row (None when it holds some) [text]: the inputs the
-    reporting span misses (:func:`workbench.preflight.coverage_notes`), else every total
-    missing or constant.  Before, a span without data (``[period]`` of a year after the
-    record) wrote two header-only CSV files, said nothing on the console, and the page
-    said "No total varies with the factors given", as if the budget did not respond."""
-    if not frame.empty:
-        return None
-    from ..preflight import coverage_notes
-    why = []
-    if period.get("start") is not None and period.get("end") is not None:
-        why = [n[len("warning: "):] for n in coverage_notes(study.inputs, period["start"],
-                                                            period["end"])
-               if n.startswith("warning: ")]
-    return ("no total of the cells analysed varies, and sensitivity.csv holds no row: "
-            + ("; ".join(why) if why else "every total is missing or constant "
-               "(workbench run on the scenario says which and why)"))
 
 
 def _check_cells(sc, catalogue, opt):

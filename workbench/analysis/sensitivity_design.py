@@ -162,3 +162,32 @@ def design_html(d: dict) -> str:
             "ST_conf: half-widths of their 95 % bootstrap intervals [1]. The tornado's "
             "outputs are the deposition of the "
             "period in the unit on its axis.</p>")
+
+
+def no_rows_text(inputs, frame, period) -> str | None:
+    """Why sensitivity.csv holds no row (None when it holds some) [text]: the inputs the
+    reporting span misses (:func:`workbench.preflight.coverage_notes`), else every total
+    missing or constant.  Before, a span without data (``[period]`` of a year after the
+    record) wrote two header-only CSV files, said nothing on the console, and the page
+    said "No total varies with the factors given", as if the budget did not respond.
+
+    Parameters
+    ----------
+    inputs : workbench.io.Inputs
+        The inputs analysed.
+    frame : pandas.DataFrame
+        The Sobol indices (:func:`workbench.analysis.sensitivity.sobol`).
+    period : dict
+        The scenario's ``[period]`` (``start``, ``end``: UTC text or None).
+    """
+    if not frame.empty:
+        return None
+    from ..preflight import coverage_notes
+    why = []
+    if period.get("start") is not None and period.get("end") is not None:
+        why = [n[len("warning: "):] for n in coverage_notes(inputs, period["start"],
+                                                            period["end"])
+               if n.startswith("warning: ")]
+    return ("no total of the cells analysed varies, and sensitivity.csv holds no row: "
+            + ("; ".join(why) if why else "every total is missing or constant "
+               "(workbench run on the scenario says which and why)"))
