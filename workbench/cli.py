@@ -10,6 +10,7 @@ limit) and interrupts.  A run folder is written whole or not at all
 from __future__ import annotations
 
 import argparse
+import json
 import sys
 from pathlib import Path
 
@@ -447,6 +448,10 @@ def cmd_sensitivity(args) -> int:
     from .scenario import load_scenario
     written = write_sensitivity(load_scenario(args.scenario), args.out, args.overwrite,
                                 args.quiet)
+    from .analysis.sensitivity_design import design_lines
+    record = json.loads(written["provenance.json"].read_text(encoding="utf-8"))
+    for line in design_lines(record["sensitivity_design"]):      # runs, seed, what was held
+        print(line)
     print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
     for name in written:
         print(f"  {name}")

@@ -91,6 +91,20 @@ def _type_ok(value, default) -> bool:
     return True
 
 
+def _expected_like(value, default) -> str:
+    """``an array like the default [] (e.g. ["fell"])``: the type a key wants, its default
+    as TOML writes it, and for a lone text where an array is wanted the array of it.
+    Before: "a array like the default ()" (Python's tuple, for ``sites = "fell"``)."""
+    import json
+    name = _type_name(default)
+    shown = (json.dumps(list(default)) if isinstance(default, (tuple, list))
+             else repr(default))
+    text = f"{'an' if name[0] in 'aeiou' else 'a'} {name} like the default {shown}"
+    if name == "array" and isinstance(value, str):
+        text += f" (e.g. {json.dumps([value])})"
+    return text
+
+
 def _type_name(default) -> str:
     for t, name in ((bool, "boolean"), ((int, float), "number"), (str, "string"),
                     ((tuple, list), "array"), (dict, "table")):
@@ -214,8 +228,7 @@ def _check_option_section(section, cls, given, path, lines):
         if not _type_ok(value, defaults[key]):
             raise ScenarioError("wrong type", file=path, line=_line_of(lines, section, key),
                                 column=f"{section}.{key}", value=value,
-                                expected=f"a {_type_name(defaults[key])} like the default "
-                                f"{defaults[key]!r}")
+                                expected=_expected_like(value, defaults[key]))
     try:
         if hasattr(cls, "from_dict"):
             return cls.from_dict(dict(given))
@@ -226,6 +239,13 @@ def _check_option_section(section, cls, given, path, lines):
             conv["seasonal_category"] = tuple(conv["seasonal_category"])
         return cls(**conv)
     except (ValueError, TypeError) as exc:
+        item = getattr(exc, "option_item", None)
+        if item is not None:          # one entry of a table option (a [sensitivity] factor)
+            key = exc.option_key
+            line = (_line_of(lines, f"{section}.{key}", item)
+                    or _line_of(lines, section, key))
+            raise ScenarioError(f"invalid value ({exc})", file=path, line=line,
+                                column=f"{section}.{key}.{item}") from None
         key = next(iter(given), None)
         for k in given:
             if k in str(exc):

@@ -196,7 +196,8 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
         Outputs of :data:`OUTPUTS` [mol m-2; eq ha-1 for the acidity].
     coords : dict
         ``site``, ``receptor``, ``period`` labels, ``data``: :func:`data_notes` of the
-        budget, and ``pairs``: the (site, receptor) pairs of the budget's rows (each
+        budget, ``engine_runs``: the number of pipeline runs, and ``pairs``: the
+        (site, receptor) pairs of the budget's rows (each
         site's own surfaces; the grid of the arrays holds every receptor of the network
         at every site).
     """
@@ -224,6 +225,7 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
             coords["data"] = data_notes(ds)
             table = res.table
             coords["pairs"] = set(zip(table["site"].astype(str), table["receptor"].astype(str)))
+            coords["classes"] = site_classes(study.catalogue(run_kwargs.get("overrides")))
             coords["bulk"] = {(k, p): bool(any(bp.b[p] > 0 for bp in ls.bulk_part.values()))
                               for k, ls in enumerate(layer.sites)
                               for p in range(ds.sizes["period"])}
@@ -233,6 +235,7 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
             tot = linear_outputs(layer, s, values, len(rows))
             for q, (_, _, key_) in enumerate(OUTPUTS):
                 y[rows, s, :, :, q] = tot[key_]
+    coords["engine_runs"] = len(groups)
     return y, coords
 
 
@@ -257,7 +260,8 @@ def sobol(study, base_options: dict, options: SensitivityOptions, run_kwargs=Non
         Columns ``site, receptor, period, element, quantity, factor, S1, S1_conf, ST,
         ST_conf`` [1] and ``note`` (:func:`row_note`: an index 0 for want of data, a
         total lacking components); outputs that do not vary (a missing total) are left
-        out.
+        out.  ``attrs``: ``evaluations`` (rows of the sample, N (k + 2)) and
+        ``engine_runs`` (pipeline runs among them).
     """
     prob = problem(options)
     x = saltelli_sample(prob, options.samples, options.seed)
@@ -272,9 +276,12 @@ def sobol(study, base_options: dict, options: SensitivityOptions, run_kwargs=Non
             rows.append((*cell, el, quantity, name, si["S1"][i], si["S1_conf"][i],
                          si["ST"][i], si["ST_conf"][i],
                          row_note(name, el, quantity, coords["data"][(s, r, p)],
-                                  coords["bulk"].get((s, p)))))
-    return pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
-                                       "factor", "S1", "S1_conf", "ST", "ST_conf", "note"])
+                                  coords["bulk"].get((s, p)),
+                                  coords["classes"].get(cell[0]))))
+    frame = pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
+                                        "factor", "S1", "S1_conf", "ST", "ST_conf", "note"])
+    frame.attrs.update(evaluations=len(x), engine_runs=coords["engine_runs"])
+    return frame
 
 
 def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=None,
@@ -292,7 +299,7 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
         N per reporting period ([eq ha-1] for the acidity), the unit of each row named
         in ``unit`` (:func:`output_unit`, e.g. ``kg S ha-1 yr-1`` for yearly periods;
         tornado.csv mixes the three elements), ``note`` as in
-        :func:`sobol`.
+        :func:`sobol`; ``attrs`` as :func:`sobol`'s (2 k + 1 evaluations).
     """
     from ..units import element_deposition_in
     names = list(options.factors)
@@ -333,10 +340,13 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
                          _label(nm, options, x[2 + 2 * i, i]), _label(nm, options, base[i]),
                          conv(lo), conv(hi), b, unit,
                          row_note(nm, el, quantity, coords["data"][(s, r, p)],
-                                  coords["bulk"].get((s, p)))))
-    return pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
-                                       "factor", "low", "high", "base", "output_low",
-                                       "output_high", "output_base", "unit", "note"])
+                                  coords["bulk"].get((s, p)),
+                                  coords["classes"].get(cell[0]))))
+    frame = pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
+                                        "factor", "low", "high", "base", "output_low",
+                                        "output_high", "output_base", "unit", "note"])
+    frame.attrs.update(evaluations=len(x), engine_runs=coords["engine_runs"])
+    return frame
 
 
 def data_notes(ds) -> dict:
@@ -407,7 +417,18 @@ def with_bulk_factor(options: SensitivityOptions, budget_options, catalogue) -> 
                                                  "bulk_wet_factor": BULK_FACTOR_RANGE})
 
 
-def row_note(name, element, quantity, data, has_bulk=None) -> str:
+def site_classes(catalogue) -> dict:
+    """site id -> the land-use classes its engine runs use: its surfaces (own land use and
+    receptors), the class under its wind mast (``met_land_use``) and the classes before
+    a declared land-use change."""
+    from ..surfacehistory import earlier_classes, land_use_history
+    earlier = earlier_classes(land_use_history(catalogue))
+    return {s.id: tuple(dict.fromkeys(
+        tuple(s.surfaces) + ((s.met_land_use,) if getattr(s, "met_land_use", None) else ())
+        + tuple(earlier.get(s.id, ())))) for s in catalogue}
+
+
+def row_note(name, element, quantity, data, has_bulk=None, classes=None) -> str:
     """The note of a row of sensitivity.csv or tornado.csv [text] ("" for none).
 
     An index 0 because the factor reaches only components without data at the site
@@ -426,6 +447,10 @@ def row_note(name, element, quantity, data, has_bulk=None) -> str:
     has_bulk : bool, optional
         The cell's wet has a bulk-collector part (``scale_wet``); False says that
         ``bulk_wet_factor`` has no effect there.
+    classes : tuple, optional
+        The land-use classes of the site (:func:`site_classes`): a ``z0_<class>`` or
+        ``nh3_gamma_<class>`` of another class has nothing to act on there (its zeros
+        read as a measured nil effect before).
     """
     from ..budget import COMPONENTS
     lacking, idle = data
@@ -439,6 +464,12 @@ def row_note(name, element, quantity, data, has_bulk=None) -> str:
         if reach and all(c in idle for c in reach):
             parts.append("no effect for want of data: " + "; ".join(
                 f"{path} {sp} {idle[(path, sp)]}" for path, sp in reach))
+    kind = factor_kind(name)
+    if kind in ("z0", "nh3_gamma") and classes is not None:
+        cls = name[len("z0_"):] if kind == "z0" else name[len("nh3_gamma_"):]
+        if cls not in classes:
+            parts.append(f"no effect: the site has no {cls} surface (its classes: "
+                         f"{', '.join(classes)})")
     if (name == "bulk_wet_factor" and has_bulk is False and not parts
             and quantity in ("wet", "total", "potential_acidity")):
         parts.append("no effect: no bulk-collector samples at the site in the period")
@@ -545,8 +576,17 @@ def _write_sensitivity(sc, out, quiet, run_folder=None):
         t, index=False, float_format="%.6g")),
         "tornado.csv": atomic_write(out / "tornado.csv", lambda t: torn.to_csv(
             t, index=False, float_format="%.6g"))}
+    from .sensitivity_design import design, no_rows_text
+    record = design(opt, {"no_rows": no_rows_text(study.inputs, frame, p),
+                          "sobol_evaluations": frame.attrs["evaluations"],
+                          "sobol_engine_runs": frame.attrs["engine_runs"],
+                          "tornado_evaluations": torn.attrs["evaluations"],
+                          "tornado_engine_runs": torn.attrs["engine_runs"],
+                          "widest_interval": (float(frame[["S1_conf", "ST_conf"]].max().max())
+                                              if len(frame) else None)},
+                    dry=sc.options["dry"], budget=sc.options["budget"])
     html = sensitivity_html(frame, torn, period=_headline_period(
-        study, frame, p["resolution"], sc.options["wet"].hydro_start_month))
+        study, frame, p["resolution"], sc.options["wet"].hydro_start_month), design=record)
     written["sensitivity.html"] = atomic_write(out / "sensitivity.html",
                                                lambda t: t.write_text(html, encoding="utf-8"))
     from ..csvcaution import CAUTION_FILE, write_folder_caution
@@ -561,6 +601,7 @@ def _write_sensitivity(sc, out, quiet, run_folder=None):
     prov["outputs"] = names + ["provenance.json"]
     prov["output_sha256"] = {n: sha256(out / n) for n in names}
     prov["sites"] = [str(s) for s in study.inputs.catalogue.ids]
+    prov["sensitivity_design"] = record      # runs, seed, factors and what was held
     base = scenario_base(sc)
     prov["run_notes"] = [changed_note(p, base) for p in changed.values()]
     written["provenance.json"] = atomic_write(
@@ -610,10 +651,13 @@ def _headline_period(study, frame, resolution, hydro_start_month=10):
     return str(table["label"].iloc[0]) if len(table) else None
 
 
-def sensitivity_html(frame: pd.DataFrame, torn: pd.DataFrame, period=None) -> str:
+def sensitivity_html(frame: pd.DataFrame, torn: pd.DataFrame, period=None,
+                     design=None) -> str:
     """An HTML page with the Sobol bars and the tornado of every total of the first
     (site, receptor) of `frame` and its last period (`period`, when given and among the
-    pair's periods: :func:`_headline_period`, the last period a sample starts in)."""
+    pair's periods: :func:`_headline_period`, the last period a sample starts in), and,
+    with `design` (:func:`workbench.analysis.sensitivity_design.design`), what was
+    varied over which range, the model runs, the seed and what was held fixed."""
     import html as _html
 
     import plotly.io as pio
@@ -631,8 +675,15 @@ def sensitivity_html(frame: pd.DataFrame, torn: pd.DataFrame, period=None) -> st
                  "ends of its range. The indices rank the factors within the ranges given "
                  "in [sensitivity] only (docs/scenario.md); a factor left out has no "
                  "index.") + "</p>"]
+    if design is not None:
+        from .sensitivity_design import design_html
+        parts.append(design_html(design))
     if frame.empty:
-        parts.append("<p>No total varies with the factors given.</p>")
+        why = (design or {}).get("no_rows")
+        parts.append("<p class='no_rows'>" + (_html.escape(why[0].upper() + why[1:] + ".")
+                                              if why else
+                                              "No total varies with the factors given.")
+                     + "</p>")
     else:
         first = frame.iloc[0]
         periods = frame.loc[(frame["site"] == first["site"])

@@ -28,6 +28,42 @@ WETNESS = ("met", "inferred", "always_dry", "always_wet")
 RC_SCALE_RANGE = (0.5, 2.0)
 
 
+class FactorError(ValueError):
+    """A bad entry of ``[sensitivity] factors``.
+
+    ``option_key`` ("factors") and ``option_item`` (the factor's name) let the scenario's
+    message point at the factor's own line and name it (``sensitivity.factors.vd_S02``);
+    before, a misspelt factor was placed on the line of ``sites`` (the first key of the
+    section) and a bad range on the ``[sensitivity.factors]`` header.
+    """
+
+    option_key = "factors"
+
+    def __init__(self, message: str, factor):
+        super().__init__(message)
+        self.option_item = str(factor)
+
+
+def factor_names() -> list:
+    """Every factor name :func:`factor_kind` accepts, the patterns written out (for the
+    "did you mean" of a misspelt one)."""
+    from ..landuse import LAND_USE
+    from ..species import AIR_GASES
+    return (list(LINEAR) + ["wetness_rule"]
+            + [f"{pre}{p}" for pre in ("fine_fraction_", "fine_mmd_") for p in PARTICLES]
+            + [f"z0_{lu}" for lu in LAND_USE] + [f"rc_scale_{g}" for g in AIR_GASES]
+            + [f"nh3_gamma_{lu}" for lu in LAND_USE])
+
+
+def _powers_of_two_near(n: int) -> str:
+    """``"64 or 128"``: the powers of 2 either side of `n`; ``"2"`` below 2 (the least
+    base sample SALib takes)."""
+    if n < 2:
+        return "2"
+    below = 1 << (int(n).bit_length() - 1)
+    return f"{below} or {below * 2}"
+
+
 def nh3_gamma_range(land_use: str) -> tuple:
     """Range of an ``nh3_gamma_<land use>`` factor named with an empty range: the
     class default Gamma_s (:data:`workbench.drydep.nh3_bidirectional.EMISSION_POTENTIAL`)
@@ -40,9 +76,9 @@ def nh3_gamma_range(land_use: str) -> tuple:
     from ..drydep.nh3_bidirectional import EMISSION_POTENTIAL
     g = float(EMISSION_POTENTIAL[land_use])
     if not g > 0:
-        raise ValueError(f"SensitivityOptions.factors.nh3_gamma_{land_use} = []: the class "
-                         f"has no stomatal emission potential by default (Gamma_s {g:g}); "
-                         "give the range [low, high]")
+        raise FactorError(f"SensitivityOptions.factors.nh3_gamma_{land_use} = []: the class "
+                          f"has no stomatal emission potential by default (Gamma_s {g:g}); "
+                          "give the range [low, high]", f"nh3_gamma_{land_use}")
     return (round(g / DEFAULT_NH3_GAMMA_GSD, 3), g * DEFAULT_NH3_GAMMA_GSD)
 
 
@@ -95,7 +131,11 @@ class SensitivityOptions:
                 raise ValueError(f"SensitivityOptions.{name} = {v!r} must be an integer >= 0")
             object.__setattr__(self, name, int(v))
         if self.samples < 2 or self.samples & (self.samples - 1):
-            raise ValueError(f"SensitivityOptions.samples = {self.samples} must be a power of 2")
+            # Saltelli's scheme on a Sobol sequence keeps its balance at powers of 2 only
+            # (SALib warns and goes on otherwise): the nearest ones, and what N costs
+            raise ValueError(f"SensitivityOptions.samples = {self.samples} must be a power of 2 "
+                             f"(e.g. {_powers_of_two_near(self.samples)}; the model runs "
+                             "N (k + 2) times for k factors)")
         def empty(k, v):          # a factor named with [] takes its default range
             if len(v):
                 return v
@@ -112,20 +152,22 @@ class SensitivityOptions:
             if kind == "wetness_rule":
                 bad = [r for r in rng if r not in WETNESS]
                 if bad or len(rng) < 2:
-                    raise ValueError(f"SensitivityOptions.factors.wetness_rule: {list(rng)} "
-                                     f"must list 2 or more of {WETNESS}")
+                    raise FactorError(f"SensitivityOptions.factors.wetness_rule: {list(rng)} "
+                                      f"must list 2 or more of {WETNESS}", name)
                 continue
             if (len(rng) != 2 or not all(isinstance(v, (int, float)) and not isinstance(v, bool)
                                          for v in rng)
                     or not 0 <= rng[0] < rng[1] < float("inf")):
-                raise ValueError(f"SensitivityOptions.factors.{name} = {list(rng)} must be "
-                                 "[low, high] with 0 <= low < high, both finite (a factor "
-                                 "held fixed is left out of the table, not given low = high)")
+                raise FactorError(f"SensitivityOptions.factors.{name} = {list(rng)} must be "
+                                  "[low, high] with 0 <= low < high, both finite (a factor "
+                                  "held fixed is left out of the table, not given low = high)",
+                                  name)
             if kind == "rc_scale" and not rng[0] > 0:
-                raise ValueError(f"SensitivityOptions.factors.{name}: a multiplier of Rc "
-                                 "must be > 0")
+                raise FactorError(f"SensitivityOptions.factors.{name}: a multiplier of Rc "
+                                  "must be > 0", name)
             if kind == "fine_fraction" and rng[1] > 1:
-                raise ValueError(f"SensitivityOptions.factors.{name}: a fraction is at most 1")
+                raise FactorError(f"SensitivityOptions.factors.{name}: a fraction is at most 1",
+                                  name)
 
     @classmethod
     def from_dict(cls, given: dict) -> "SensitivityOptions":
@@ -143,35 +185,44 @@ class SensitivityOptions:
 
 def factor_kind(name: str) -> str:
     """``linear``, ``wetness_rule``, ``fine_fraction``, ``fine_mmd``, ``z0``,
-    ``rc_scale`` or ``nh3_gamma``."""
+    ``rc_scale`` or ``nh3_gamma``; an unknown name raises :class:`FactorError` with the
+    nearest known one."""
+    from ..errors import suggest
     if name in LINEAR:
         return "linear"
     if name == "wetness_rule":
         return name
+    hint = suggest(name, factor_names())
     for prefix in ("fine_fraction_", "fine_mmd_"):
         if name.startswith(prefix):
             if name[len(prefix):] not in PARTICLES:
-                raise ValueError(f"unknown particle in factor {name!r}; expected one of "
-                                 f"{', '.join(PARTICLES)}")
+                raise FactorError(f"unknown particle in factor {name!r}; expected one of "
+                                  f"{', '.join(PARTICLES)}{hint}", name)
             return prefix[:-1]
     if name.startswith("z0_"):
+        from ..landuse import LAND_USE
+        # a class not in the table was taken and never reached a receptor: indices 0
+        # that read as "no effect"
+        if name[len("z0_"):] not in LAND_USE:
+            raise FactorError(f"unknown land-use class in factor {name!r}; expected one of "
+                              f"{', '.join(LAND_USE)}{hint}", name)
         return "z0"
     if name.startswith("rc_scale_"):
         from ..species import AIR_GASES
         if name[len("rc_scale_"):] not in AIR_GASES:
-            raise ValueError(f"unknown gas in factor {name!r}; expected one of "
-                             f"{', '.join(AIR_GASES)}")
+            raise FactorError(f"unknown gas in factor {name!r}; expected one of "
+                              f"{', '.join(AIR_GASES)}{hint}", name)
         return "rc_scale"
     if name.startswith("nh3_gamma_"):
         from ..landuse import LAND_USE
         if name[len("nh3_gamma_"):] not in LAND_USE:
-            raise ValueError(f"unknown land-use class in factor {name!r}; expected one of "
-                             f"{', '.join(LAND_USE)}")
+            raise FactorError(f"unknown land-use class in factor {name!r}; expected one of "
+                              f"{', '.join(LAND_USE)}{hint}", name)
         return "nh3_gamma"
-    raise ValueError(f"unknown sensitivity factor {name!r}; expected one of "
-                     f"{', '.join(LINEAR)}, wetness_rule, fine_fraction_<particle>, "
-                     "fine_mmd_<particle>, z0_<land use>, rc_scale_<gas>, "
-                     "nh3_gamma_<land use>")
+    raise FactorError(f"unknown sensitivity factor {name!r}; expected one of "
+                      f"{', '.join(LINEAR)}, wetness_rule, fine_fraction_<particle>, "
+                      "fine_mmd_<particle>, z0_<land use>, rc_scale_<gas>, "
+                      f"nh3_gamma_<land use>{hint}", name)
 
 
 #: Amount of the tornado's outputs by element (a period's deposition, as the budget's

@@ -29,6 +29,17 @@ OUTPUT_CHOICES = {"N total": ("N", "total"), "N dry": ("N", "dry"), "N wet": ("N
                   "potential acidity": ("S+N", "potential_acidity")}
 
 
+def factors_html(opt) -> str:
+    """The factors of `opt` with their ranges and what each varies [HTML].  Before, the
+    line read "Factors and ranges" and gave the names alone."""
+    from ..analysis.sensitivity_design import factor_text, range_text
+    items = "; ".join(f"<code>{html.escape(n)}</code> {html.escape(range_text(n, r))} "
+                      f"({html.escape(factor_text(n))})" for n, r in opt.factors.items())
+    return ("<p>Factors and ranges (uniform), from the scenario's <code>[sensitivity]</code> "
+            f"section: {items}. Each other factor stays at its base (1, or the "
+            "scenario's value).</p>")
+
+
 class SobolExplorer(SavedText, widgets.VBox):
     """Sobol bars and a tornado for one site, receptor and span of years.
 
@@ -81,9 +92,7 @@ class SobolExplorer(SavedText, widgets.VBox):
         self.run_w = widgets.Button(description="Run analysis", icon="play",
                                     button_style="primary")
         self.bar_w = widgets.Label("")
-        self.note_w = widgets.HTML(
-            "<p>Factors and ranges: the scenario's <code>[sensitivity]</code> section "
-            f"({', '.join(opt.factors)}).</p>")
+        self.note_w = widgets.HTML(factors_html(opt))
         self.sobol = pd.DataFrame()
         self.tornado = pd.DataFrame()
         self.idle_w = widgets.HTML("")       # factors without effect here, and why
@@ -189,7 +198,12 @@ class SobolExplorer(SavedText, widgets.VBox):
         self.tornado = S.tornado(study, base, opt, kw,
                                  counted("engine runs for the tornado", (0.8, 1.0)))
         self.shown = (site, rec, (y0, y1))
-        self.idle_w.value = html.escape(self._idle_text(site, rec, y0, y1))
+        from ..analysis.sensitivity_design import SAMPLES_ENOUGH
+        few = ""
+        if opt.samples < SAMPLES_ENOUGH:      # a first look: say so beside the bars
+            few = (f"Caution: N = {opt.samples} base samples is below {SAMPLES_ENOUGH}: the "
+                   "indices are a first look, not a ranking (the error bars show how wide). ")
+        self.idle_w.value = html.escape(few + self._idle_text(site, rec, y0, y1))
         years = sorted(set(self.sobol["period"].astype(str))) or [str(y1)]
         self.year_w.options = years
         self.year_w.value = years[-1]

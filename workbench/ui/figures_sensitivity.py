@@ -6,6 +6,7 @@ a Figure built from it) out.
 from __future__ import annotations
 
 import json
+import re
 
 import pandas as pd
 
@@ -23,10 +24,42 @@ def _pick(frame, site, receptor, period, element, quantity):
                  & (frame["quantity"] == quantity)]
 
 
+def _labels(frames) -> dict:
+    """factor -> its axis label: ``vd_NO2 (no data)`` where the rows' ``note`` says the
+    factor reaches only components without data at the site, ``(no effect)`` where it
+    says the factor has nothing to act on (no bulk-collector samples).  Before, such a
+    factor's empty bar looked like a measured nil effect; the note was in the CSV only."""
+    out = {}
+    for frame in frames:
+        if "note" not in frame:
+            continue
+        for factor, note in zip(frame["factor"], frame["note"].fillna("").astype(str)):
+            if "for want of data" in note:
+                out[factor] = f"{factor} (no data)"
+            elif note.startswith("no effect"):
+                out.setdefault(factor, f"{factor} (no effect)")
+    return out
+
+
+def _lacks(frames) -> str:
+    """The components the shown total lacks, from the rows' notes ("" when complete)."""
+    for frame in frames:
+        if "note" not in frame:
+            continue
+        for note in frame["note"].fillna("").astype(str):
+            m = re.search(r"the total lacks ([^:]+): ", note)
+            if m:
+                return m.group(1).strip()
+    return ""
+
+
 def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor, period,
                      element="N", quantity="total", resolution="year") -> dict:
     """Plotly spec: first-order and total Sobol indices (with their 95 % bootstrap
-    intervals) by factor, and the one-at-a-time low/high outputs around the base.
+    intervals) by factor, and the one-at-a-time low/high outputs around the base.  A
+    factor whose rows' note says it had no data to act on is labelled so (``vd_NO2 (no
+    data)``), and a total lacking components says so in the title (:func:`_labels`,
+    :func:`_lacks`).
 
     Parameters
     ----------
@@ -48,6 +81,10 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
     layout = json.loads(layout_json)
     s = _pick(sobol, site, receptor, period, element, quantity).sort_values("ST")
     t = _pick(tornado, site, receptor, period, element, quantity)
+    label = _labels((s, t))
+    s = s.assign(factor=s["factor"].map(lambda f: label.get(f, f)))
+    t = t.assign(factor=t["factor"].map(lambda f: label.get(f, f)))
+    lacks = _lacks((s, t))
     traces = []
     (x1, y1), (x2, y2) = axes
     # side by side in each factor's row (the panel overlays bars for the tornado: the
@@ -82,7 +119,9 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
     layout.update({"barmode": "overlay", "height": 120 + 28 * max(len(s), len(t), 4),
                    "title": {"text": f"Sensitivity of {element} {quantity.replace('_', ' ')} · "
                                      f"{site} · "
-                                     f"{receptor} · {period}"}})
+                                     f"{receptor} · {period}"
+                                     + (f" (lacks {lacks}: indices of its measured part)"
+                                        if lacks else "")}})
     layout[x1]["range"] = [0, 1.05]
     # every axis named (the index axis had its panel's title only)
     layout[x1]["title"] = {"text": "Sobol index [1]"}
