@@ -111,6 +111,8 @@ def suspicious_rows(chunk, names, used, index, off_ns, label, hour):
             firsts[kind] = (i, {c: str(df[c].iat[i]) for c in used})
 
     sites = df["site"].to_numpy(dtype=object)
+    if (sites == "site").any():
+        return None            # the header repeated? the line reader drops it or says so
     site_idx = np.array([index.get(s, -1) for s in sites], dtype=np.int32)
     first(("site",), site_idx < 0)
     s = df["time"]
