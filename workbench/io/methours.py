@@ -272,7 +272,9 @@ def exact_repeats(frame: pd.DataFrame, sites, t, labels=None):
     """Rows that repeat an earlier row of their site and hour cell for cell (the time
     label and every other column, read or not): the copies of a met file pasted after
     itself, with or without its header.  A repeat with another value in any cell is
-    not one (:func:`workbench.io.met.check_hours` refuses it, naming both lines).
+    not one (:func:`workbench.io.met.check_hours` refuses it, naming both lines), nor,
+    in a file of fewer than :data:`TWICE_ROWS` repeats, one that follows its twin in a
+    month of :data:`CLOCK_BACK_MONTHS` (the clock going back; refused with that hint).
 
     Parameters
     ----------
@@ -304,4 +306,13 @@ def exact_repeats(frame: pd.DataFrame, sites, t, labels=None):
     of_row[rows] = first[group[rows]]
     drop = np.zeros(n, bool)
     drop[rows] = same_cells(frame, rows, of_row[rows], labels) < 0
+    if len(rows) < TWICE_ROWS:
+        # a few repeats, each the next row of its site after its twin, in a month of
+        # clock changes: the hour a clock going back writes twice (a calm night can read
+        # the same in every column), never dropped: refused with the clock hint
+        prev = pd.Series(np.arange(n)).groupby(np.asarray(sites, dtype=object),
+                                               sort=False).shift(1).to_numpy()
+        month = pd.DatetimeIndex(np.asarray(t)[rows]).month.to_numpy()
+        clock = (prev[rows] == of_row[rows]) & np.isin(month, CLOCK_BACK_MONTHS)
+        drop[rows[clock]] = False
     return drop, of_row
