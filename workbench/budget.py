@@ -27,7 +27,7 @@ import xarray as xr
 
 from .budgetstatus import (NO_PNA_AT_SITE, as_flag, bracket_outputs, bulk_caught_brackets,
                            dry_status, join_notes, nh3_net_component, sampling_gap_note,
-                           wet_component, wet_outputs)
+                           wet_component, wet_outputs, wet_sulfate_total)
 from .dryflux import DryFluxOptions
 from .errors import WorkbenchError, suggest
 from .surfacehistory import collector_shares, describe, period_notes
@@ -601,6 +601,10 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     if wet is not None:
         wet_vars, wet_ions = wet_outputs(w)
         data.update(wet_vars)
+        data["wet_sulfate_total"] = xr.Variable(("site", "period"), wet_sulfate_total(
+            w, options), {"long_name": "the wet S component (SO4) holds total SO4, sea salt "
+                          "included: sulfate_basis total, or the non-sea-salt mean fell back "
+                          "for want of the sea-salt tracer"})
         coords["wet_ion"] = wet_ions
     ds = xr.Dataset(data, coords=coords)               # built once (each assign aligns)
     ds.attrs.update({"options": json.dumps(options.to_dict(), sort_keys=True),

@@ -17,6 +17,7 @@ import pandas as pd
 import xarray as xr
 
 from .wet.qa import exceeds, falls_short
+from .wet.seasalt import total_in_place
 
 #: The start of the note of a site that measures no pNa at all: its total pSO4 stands
 #: for the non-sea-salt part on one basis over the whole record, said but not flagged
@@ -228,12 +229,11 @@ def wet_mean_status(w, name, w_status, fallback=False):
     soft = np.zeros(shape, bool)          # flagged for a reason other than completeness
     if fallback:
         soft[:] = True
-        notes.append((soft.copy(), f"no {tracer} measured: total {ion} used in place of "
-                      f"non-sea-salt {ion} (sea salt included)"))
+        notes.append((soft.copy(), f"no {tracer} measured: {total_in_place(ion)} "
+                      "(sea salt included)"))
     elif name != ion:
         for var, text in ((f"{name}_total_used", f"no {tracer} at the site in the period: "
-                           f"total {ion} used in place of non-sea-salt {ion} (sea salt "
-                           "included)"),
+                           f"{total_in_place(ion)} (sea salt included)"),
                           (f"{name}_clipped", f"sea-salt {ion} from {tracer} exceeds the "
                            f"measured {ion}: non-sea-salt {ion} clipped at 0")):
             if var in v:
@@ -304,6 +304,29 @@ def wet_mean_status(w, name, w_status, fallback=False):
     share = np.where(~np.isfinite(dep) & ~(precip > 0), np.nan, share)
     status = np.where(~np.isfinite(dep), "missing", status).astype(object)
     return status, low, notes, share, gone
+
+
+def wet_sulfate_total(w, options) -> np.ndarray:
+    """Where the budget's wet S component (``SO4``) holds total SO4, sea salt included
+    [bool] (site, period): everywhere on ``sulfate_basis = "total"`` and where the wet
+    chain has no non-sea-salt mean (no tracer in the record); on the nss basis, the
+    periods whose non-sea-salt mean fell back to the total ion for want of the tracer
+    (the wet chain's ``nssSO4_total_used``).  The choice of :func:`wet_component`, as
+    data: budget.csv's ``sulfate_basis`` reads it (carried as ``wet_sulfate_total``),
+    not the words of the note.
+
+    Parameters
+    ----------
+    w : xarray.Dataset
+        Wet deposition (site, period) on the budget's axes.
+    options : BudgetOptions
+    """
+    shape = w.variables["status"].shape
+    if options.sulfate_basis != "nss" or "dep_nssSO4" not in w.variables:
+        return np.ones(shape, bool)
+    if "nssSO4_total_used" not in w.variables:
+        return np.zeros(shape, bool)
+    return as_flag(w.variables["nssSO4_total_used"].values)
 
 
 def wet_component(w, sp, options, w_status, w_fail, with_share=False):

@@ -24,6 +24,7 @@ from .dryflux import (_count_cumulative, _inputs_for, deposition_rows, fill_diur
                       no_hour_inside, period_axes, period_mean, share_to_periods)
 from .drypairs import apply_split, bracket_variables, combined_notes, split_pairs
 from .periods import hour_bounds
+from .wet.seasalt import total_in_place
 
 
 def prepare_velocities(vd_ds, species_list, fixed_velocity=None, min_slot_hours=7,
@@ -277,8 +278,8 @@ def total_used_notes(rows: dict, periods, sites) -> np.ndarray:
         s_, p_ = divmod(int(cell), n_p)
         n_all = int((each[:, p_] & (si == s_)).sum())
         if none_at.get(s_, False):
-            out[s_, p_] = (f"{NO_PNA_AT_SITE}: total pSO4 used in place of non-sea-salt "
-                           "pSO4 (sea salt included, an upper bound; small inland)")
+            out[s_, p_] = (f"{NO_PNA_AT_SITE}: {total_in_place('pSO4')} (sea salt "
+                           "included, an upper bound; small inland)")
         else:
             out[s_, p_] = (f"pNa missing in {len(names)} of {n_all} pSO4 samples (from "
                            f"{', '.join(names)}): total pSO4 used for them (sea salt "

@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .budgetstatus import join_notes, split_notes
+from .budgetstatus import as_flag, join_notes, split_notes
 from .units import deposition_in, element_deposition_in
 from .wet.qa import UMOL_L_PER_MOL_M3
 
@@ -395,32 +395,36 @@ def _union_of_parts(rows: pd.DataFrame, keys, col: str, order: dict) -> pd.Serie
 
 #: ``sulfate_basis`` of budget.csv: what the wet S rows (labelled ``SO4``) hold.
 SULFATE_BASIS_WORDS = {"nss": "non-sea-salt", "total": "total"}
-#: The words of a wet SO4 note where the non-sea-salt mean fell back to the total ion
-#: (:func:`workbench.budgetstatus.wet_mean_status`, the whole record or one period).
-FALLBACK_WORDS = "total SO4 used in place of non-sea-salt SO4"
-
-
 def _sulfate_basis(ds: xr.Dataset, frame: pd.DataFrame, basis: str) -> np.ndarray:
     """``non-sea-salt`` or ``total`` on the wet S rows (the SO4 component and the wet S
     sum, which is that SO4), empty on the others: the component keeps the label
     ``SO4`` (a public key of budget.csv, trends.csv and the comparison tables) and this
-    column says which sulfate it holds.  ``non-sea-salt`` where the nss basis was asked
-    for and the wet chain has the non-sea-salt mean (``nssSO4`` among its ions, or
-    ``dep_nssSO4``); ``total`` on the total basis and where the nss basis fell back for
-    the whole record or a period (no tracer; the row is flagged and its note says
-    :data:`FALLBACK_WORDS`, which this reads: the sum row gathers its part's note).
-    Before 2026-12 the rows said ``SO4`` only, whatever they held."""
-    ions = list(ds["wet_ion"].values.astype(str)) if "wet_ion" in ds.coords else []
-    have_nss = "nssSO4" in ions or "dep_nssSO4" in ds.variables
-    word = SULFATE_BASIS_WORDS["nss" if basis == "nss" and have_nss else "total"]
+    column says which sulfate it holds.  ``total`` where the budget's
+    ``wet_sulfate_total`` (site, period) says the wet S component holds total SO4
+    (:func:`workbench.budgetstatus.wet_sulfate_total`: the total basis, no non-sea-salt
+    mean in the record, or a period whose mean fell back for want of the tracer; such a
+    row is flagged and its note says why), else ``non-sea-salt``.  The flag, not the
+    words of the note, decides (before 2026-12 the note was searched for its sentence).
+    A Dataset without the flag (no wet chain) is labelled from the basis and the wet
+    ions alone.  Before 2026-12 the rows said ``SO4`` only, whatever they held."""
     rows = ((frame["element"].astype(str) == "S") & (frame["pathway"].astype(str) == "wet")
             & frame["species"].astype(str).isin(("SO4", "all"))).to_numpy()
-    out = np.where(rows, word, "").astype(object)
-    if "note" in frame and word != "total":
-        fell = frame["note"].fillna("").astype(str).str.contains(FALLBACK_WORDS,
-                                                                  regex=False).to_numpy()
-        out = np.where(rows & fell, SULFATE_BASIS_WORDS["total"], out).astype(object)
-    return out
+    if "wet_sulfate_total" in ds:
+        sites = pd.Index(ds["site"].values.astype(str))
+        periods = pd.Index(ds["period"].values.astype(str))
+        si = sites.get_indexer(frame["site"].astype(str))
+        pi = periods.get_indexer(frame["period"].astype(str))
+        flag = as_flag(ds["wet_sulfate_total"].transpose("site", "period").values)
+        at = rows & (si >= 0) & (pi >= 0)
+        total = np.zeros(len(frame), bool)
+        total[at] = flag[si[at], pi[at]]
+        total |= rows & ~at & (basis != "nss")
+    else:
+        ions = list(ds["wet_ion"].values.astype(str)) if "wet_ion" in ds.coords else []
+        have_nss = "nssSO4" in ions or "dep_nssSO4" in ds.variables
+        total = np.full(len(frame), not (basis == "nss" and have_nss))
+    return np.where(rows, np.where(total, SULFATE_BASIS_WORDS["total"],
+                                   SULFATE_BASIS_WORDS["nss"]), "").astype(object)
 
 
 def _wet_columns(ds: xr.Dataset, frame: pd.DataFrame, basis: str) -> pd.DataFrame:

@@ -57,8 +57,11 @@ CSV_CASES = {
         read_precipitation, "p.csv", _text(PRECIP, ("2020-01-21T09:00,2020-01-28", "2020-02-30T09:00,2020-01-28")),
         ["p.csv, line 4, column 'start': not an ISO 8601 timestamp: got '2020-02-30T09:00'",
          "expected a timestamp"]),
+    # a header line repeated as written is dropped with a note (tests/io/test_file_twice.py);
+    # one that differs from the header (here its units) is refused with this hint
     "repeated_header_line": (
-        read_precipitation, "p.csv", "\n".join(P_LINES[:3] + [P_LINES[0]] + P_LINES[3:]) + "\n",
+        read_precipitation, "p.csv", "\n".join(P_LINES[:3] + [P_LINES[0].replace(
+            "[mg/L]", "[umol/L]")] + P_LINES[3:]) + "\n",
         ["p.csv, line 4, column 'site': site not in the catalogue (a repeated header line?",
          "got 'site'", "expected one of alpha, beta"]),
     "spreadsheet_totals_row": (
@@ -147,10 +150,13 @@ CSV_CASES = {
     "met_semicolon_export": (
         read_met, "m.csv", met_text(n_hours=3).replace(",", ";"),
         ["m.csv, line 2: semicolon-separated header", "expected comma-separated"]),
+    # (an exact repeat is dropped, tests/io/test_file_twice.py: here one value differs)
     "met_duplicate_hour_second_site_block": (
-        read_met, "m.csv", met_text(n_hours=4) + "\n".join(met_text(n_hours=4).splitlines()[3:4]) + "\n",
+        read_met, "m.csv", met_text(n_hours=4) + "\n".join(met_text(n_hours=4).splitlines()[3:4])
+        .replace(",1010.0,", ",1010.4,") + "\n",
         ["m.csv, line 7, column 'time': duplicate hourly timestamp: got '2020-01-07T02:00'",
-         "expected one row per site and hour (also on line 4)"]),
+         "expected one row per site and hour (also on line 4, which has 'pressure [hPa]' "
+         "'1010.0' where this line has '1010.4')"]),
 }
 
 

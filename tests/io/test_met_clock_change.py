@@ -36,8 +36,22 @@ def test_repeated_hour_at_the_autumn_change_is_named(tmp_path, cat, met_reader):
 def test_repeated_hour_elsewhere_has_no_clock_hint(tmp_path, cat, met_reader):
     p = plausible_met_csv(tmp_path)
     df = pd.read_csv(p)
-    df = pd.concat([df, df.iloc[[40]]])           # a row uploaded twice, at the end
+    again = df.iloc[[40]].copy()                  # a row uploaded twice, at the end, with
+    again["wind_speed [m/s]"] += 1.0              # another value (an exact one is dropped)
+    df = pd.concat([df, again])
     df.to_csv(p, index=False)
     with pytest.raises(InputError) as exc:
         met_reader(p, cat)
     assert "duplicate hourly timestamp" in str(exc.value) and HINT not in str(exc.value)
+
+
+def test_an_exact_repeat_at_the_autumn_change_is_not_dropped(tmp_path, cat, met_reader):
+    # the repeated 02:00 of the test above reads the same in every column (a night of
+    # constant met): not taken for a row pasted twice, which would hide the clock
+    # (exact repeats are dropped elsewhere, tests/io/test_file_twice.py)
+    p = _local_clock(tmp_path, "2020-10-24T00:00")
+    df = pd.read_csv(p)
+    assert (df.iloc[25].drop("time") == df.iloc[26].drop("time")).all()
+    with pytest.raises(InputError) as exc:
+        met_reader(p, cat)
+    assert HINT in str(exc.value)

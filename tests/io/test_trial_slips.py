@@ -137,20 +137,29 @@ def test_no_value_words_get_a_hint_in_the_met(tmp_path, cat, met_reader, cell, h
 
 
 # ----------------------------------------------- a met file with its records put in twice
-def test_a_met_file_pasted_after_itself_is_named(tmp_path, cat, met_reader):
-    # before: "duplicate hourly timestamp ... (also on line 3)" without a word that every
-    # hour of the file is there twice
+def test_a_met_file_pasted_after_itself_with_other_values_is_named(tmp_path, cat, met_reader):
+    # the second copy a corrected re-export (every temperature 0.5 degC up): refused at
+    # the first repeated hour, naming its twin, the column and both values, and that
+    # every hour is there twice (before: the twin's line only); exact copies are dropped
+    # (tests/io/test_file_twice.py)
     from tiny_inputs import met_text
     from workbench.errors import InputError
     lines = met_text(n_hours=48).splitlines()
     data = [k for k, ln in enumerate(lines) if ln.startswith("alpha,")]
+    again = []
+    for k in data:
+        cells = lines[k].split(",")
+        cells[3] = f"{float(cells[3]) + 0.5:.2f}"              # temperature [degC]
+        again.append(",".join(cells))
     p = tmp_path / "met.csv"
-    p.write_text("\n".join(lines + [lines[k] for k in data]) + "\n")
+    p.write_text("\n".join(lines + again) + "\n")
     with pytest.raises(InputError) as exc:
         met_reader(p, cat)
     msg = str(exc.value)
+    first = lines[data[0]].split(",")[3]
     assert f"line {len(lines) + 1}, column 'time'" in msg, msg
-    assert f"(also on line {data[0] + 1})" in msg, msg
+    assert (f"(also on line {data[0] + 1}, which has 'temperature [degC]' {first!r} where "
+            f"this line has {again[0].split(',')[3]!r})") in msg, msg
     assert (f"; {len(data)} rows repeat the site and hour of an earlier row: the same "
             "records put in the file twice") in msg, msg
 
@@ -161,8 +170,9 @@ def test_one_repeated_met_hour_gets_no_twice_hint(tmp_path, cat, met_reader):
     lines = met_text(n_hours=48).splitlines()
     data = [k for k, ln in enumerate(lines) if ln.startswith("alpha,")]
     p = tmp_path / "met.csv"
-    p.write_text("\n".join(lines + [lines[data[5]]]) + "\n")
+    p.write_text("\n".join(lines + [lines[data[5]].replace(",1010.0,", ",1011.0,")]) + "\n")
     with pytest.raises(InputError) as exc:
         met_reader(p, cat)
     assert "duplicate hourly timestamp" in str(exc.value)
+    assert "which has 'pressure [hPa]' '1010.0' where this line has '1011.0'" in str(exc.value)
     assert "put in the file twice" not in str(exc.value)

@@ -16,7 +16,8 @@ import xarray as xr
 from ..errors import InputError, suggest
 from . import metchecks, methours
 from .metclock import add_clock_notes
-from .common import check_sites, check_time_zones, join_reasons, unit_error, unused_note
+from .common import (REPEAT_REASON, check_sites, check_time_zones, join_reasons, repeat_note,
+                     unit_error, unused_note)
 from .ledger import Ledger
 from .readbytes import changed_while_read, record_whole
 from .table import RawTable
@@ -96,17 +97,37 @@ def read_met(path, catalogue):
     measured = t
     t, off_hour = methours.to_hour_ends(t, clock)     # half/quarter hours: the UTC hour
 
+    # a row repeating an earlier row of its site and hour cell for cell is dropped (a
+    # file pasted after itself); a repeat with another value is refused below
+    drop, of_row = methours.exact_repeats(tab.frame, sites, t, measured)
+    kept = np.flatnonzero(~drop)
+
     def where(i, problem, expected):
+        i = int(kept[i])
         return tab.error(problem, row=i, column="time", value=tab.frame["time"].iloc[i],
                          expected=expected)
-    check_hours(sites, t, where, lambda i: f"line {int(tab.lines[i])}", off_hour,
-                moved=t != measured)
+
+    def differs(i, first):
+        i, first = int(kept[i]), int(kept[first])
+        k = int(methours.same_cells(tab.frame, [i], [first], measured)[0])
+        col = tab.frame.columns[max(k, 0)]
+        return (f", which has {tab.raw_headers.get(col, col)!r} "
+                f"{tab.frame[col].iloc[first]!r} where this line has "
+                f"{tab.frame[col].iloc[i]!r}") if k >= 0 else ""
+    check_hours(sites[kept], t[kept], where, lambda i: f"line {int(tab.lines[kept[i]])}",
+                off_hour[kept], moved=(t != measured)[kept], differs=differs)
     values, raw_units = {}, {}
     for name, (target, req, _) in MET_VARIABLES.items():
         if tab.has(name):
             values[name], raw_units[name] = _convert(tab, name, target)
-    ds, ledger = _assemble(values, sites, t, tab.lines, tab.path, catalogue, raw_units,
-                           empty_reason="no values in the row")
+            values[name] = values[name][kept]
+    ds, ledger = _assemble(values, sites[kept], t[kept], tab.lines[kept], tab.path, catalogue,
+                           raw_units, empty_reason="no values in the row")
+    if drop.any():                       # in the ledger, with the sample readers' words
+        ledger = ledger + Ledger.for_rows(tab.path, tab.lines[drop], sites[drop],
+                                          np.full(int(drop.sum()), REPEAT_REASON, object),
+                                          np.ones(int(drop.sum()), bool))
+        ledger.notes.append(repeat_note(tab, tab.lines[drop], tab.lines[of_row[drop]]))
     add_clock_notes(ds, ledger, catalogue, tab.path)      # after the gap notes
     pos = pd.Index(list(catalogue.ids)).get_indexer(sites)
     ledger.notes[:0] = methours.move_notes(      # one per site whose hours were moved
@@ -119,12 +140,14 @@ def read_met(path, catalogue):
         ledger.notes.append(unused_note(tab.path.name, unknown))
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
+    if tab.header_again_note():
+        ledger.notes.append(tab.header_again_note())
     if tab.end_of_day_note():
         ledger.notes.append(tab.end_of_day_note())
     return ds, ledger
 
 
-def check_hours(sites, t, where, name_row, off_hour=None, moved=None):
+def check_hours(sites, t, where, name_row, off_hour=None, moved=None, differs=None):
     """Raise for a time off the whole hour or a second row for one site and hour.
 
     Parameters
@@ -141,6 +164,11 @@ def check_hours(sites, t, where, name_row, off_hour=None, moved=None):
         (:func:`~workbench.io.methours.to_hour_ends`); default: `t` off the UTC hour.
     moved : ndarray of bool, optional
         Rows moved onto the whole UTC hour (a repeat they make gets a hint).
+    differs : callable, optional
+        ``differs(i, first)`` -> the words naming the first cell where row i differs
+        from row `first` of its site and hour (", which has 'temperature [degC]' '4.1'
+        where this line has '5.3'"); exact repeats are dropped before
+        (:func:`~workbench.io.methours.exact_repeats`).
     """
     nat = np.isnat(t)
     if nat.any():
@@ -157,7 +185,8 @@ def check_hours(sites, t, where, name_row, off_hour=None, moved=None):
         i = int(np.flatnonzero(dup)[0])
         first = int(np.flatnonzero((sites == sites[i]) & (t == t[i]))[0])
         raise where(i, "duplicate hourly timestamp",
-                    f"one row per site and hour (also on {name_row(first)})"
+                    f"one row per site and hour (also on {name_row(first)}"
+                    + (differs(i, first) if differs is not None else "") + ")"
                     + _repeat_hint(sites, t, i, first)
                     + methours.repeat_hint(moved is not None and bool(moved[i] or moved[first]))
                     + methours.twice_hint(int(dup.sum()), _adjacent(sites, i, first)))

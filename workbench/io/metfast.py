@@ -36,7 +36,9 @@ the line reader counts them), a known site and a valid timestamp on the hour (a 
 or quarter hour of a fractional offset moved to the whole UTC hour, :mod:`.methours`,
 with the line reader's one note per site), each site's timestamps all zoned or all
 naive (per-site tallies of the zone flags, :class:`~.metlocate.ZoneTally`), no
-repeated hour.  An error of one row (the last
+repeated hour (a file with an exact repeat, a day of repeats or a line repeating the
+header goes to the line reader, which drops the exact repeats; a repeated hour with
+another value is located here, with the differing cell, :func:`.metlocate.repeat_differs`).  An error of one row (the last
 conditions) and a line with more fields than the header (``...,3.2,,`` where the header
 ends at 3.2: the line reader's parser refuses the file) it locates itself as the line
 reader does (:mod:`.metlocate`).  For the truly odd files (a quoted cell over several
@@ -273,6 +275,16 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
         before = any(k[0] in ("site", "time", "hour") for k in firsts)   # checked first
         before = before or zones is not None
         repeat = None if before else metlocate.first_repeat(rows, rows.line_of, CHECK_ROWS)
+        if repeat is not None:
+            # the first repeated hour with another value is the line reader's error (its
+            # exact repeats are dropped before); an exact one, or a day of repeats (the
+            # hint counts the repeats it keeps), is for the line reader to judge
+            differs = None if repeat[2] >= methours.TWICE_ROWS else metlocate.repeat_differs(
+                names, used, raw_headers, repeat,
+                lambda line: line_cells(path, names, line, CHUNK_BYTES, used), catalogue)
+            if differs is None:
+                return None
+            repeat = (*repeat, differs)
         metlocate.raise_first(path, meta, heads, raw_headers, firsts, catalogue, label, hour,
                               repeat, lambda line: line_cells(path, names, line, CHUNK_BYTES,
                                                                 ("site", "time")),

@@ -236,3 +236,83 @@ def clock_change_hint(adjacent: bool, month: int) -> str:
     return ("; the clock going back from summer time? Write the times in the site's "
             "standard time (utc_offset_h) or with their offset, e.g. 02:00+02:00 then "
             "02:00+01:00")
+
+
+def same_cells(frame: pd.DataFrame, rows, of_rows, labels=None):
+    """Per pair of rows (`rows`, `of_rows` of `frame`): the first column whose cells
+    differ, or None (numbers compared as numbers, so 1.5 and 1.50 are equal; text as
+    typed, stripped), the sample readers' rule (:func:`~.common.duplicate_rows`).  With
+    `labels` (datetime64 per row of `frame`: the time as labelled, before any move onto
+    the UTC hour), the ``time`` column compares those, so ``2021-01-21 14:00`` and
+    ``2021-01-21T14:00`` are the same label and 09:30 and 10:00 are not.
+
+    Returns
+    -------
+    differ : ndarray of int
+        Position in ``frame.columns`` of the first differing column; -1 where every
+        cell is the same.
+    """
+    rows, of_rows = np.asarray(rows, np.int64), np.asarray(of_rows, np.int64)
+    differ = np.full(len(rows), -1, np.int64)
+    for k, c in enumerate(frame.columns):          # a loop over columns, not rows
+        col = frame[c].to_numpy(dtype=object)
+        a, b = col[rows], col[of_rows]
+        same = a == b
+        if c == "time" and labels is not None:
+            same = np.asarray(labels)[rows] == np.asarray(labels)[of_rows]
+        elif not same.all():
+            na = pd.to_numeric(pd.Series(a[~same]), errors="coerce").to_numpy(float)
+            nb = pd.to_numeric(pd.Series(b[~same]), errors="coerce").to_numpy(float)
+            same[~same] = na == nb
+        differ = np.where((differ < 0) & ~same, k, differ)
+    return differ
+
+
+def exact_repeats(frame: pd.DataFrame, sites, t, labels=None):
+    """Rows that repeat an earlier row of their site and hour cell for cell (the time
+    label and every other column, read or not): the copies of a met file pasted after
+    itself, with or without its header.  A repeat with another value in any cell is
+    not one (:func:`workbench.io.met.check_hours` refuses it, naming both lines), nor,
+    in a file of fewer than :data:`TWICE_ROWS` repeats, one that follows its twin in a
+    month of :data:`CLOCK_BACK_MONTHS` (the clock going back; refused with that hint).
+
+    Parameters
+    ----------
+    frame : DataFrame
+        The file's cells as text (:attr:`~.table.RawTable.frame`).
+    sites : ndarray of str
+    t : ndarray of datetime64[ns]
+        End of each row's hour (UTC).
+    labels : ndarray of datetime64[ns], optional
+        The times as labelled (:func:`same_cells`); default: the ``time`` text.
+
+    Returns
+    -------
+    drop : ndarray of bool
+        The exact repeats (not read).
+    of_row : ndarray of int
+        Row (0-based, of `frame`) that each row repeats: the first of its site and hour
+        (-1 for a row that repeats none).
+    """
+    n = len(sites)
+    of_row = np.full(n, -1, np.int64)
+    key = pd.DataFrame({"s": sites, "t": t})
+    later = key.duplicated().to_numpy()
+    if not later.any():
+        return np.zeros(n, bool), of_row
+    group = key.groupby(["s", "t"], sort=False, dropna=False).ngroup().to_numpy()
+    _, first = np.unique(group, return_index=True)    # first row of each group
+    rows = np.flatnonzero(later)
+    of_row[rows] = first[group[rows]]
+    drop = np.zeros(n, bool)
+    drop[rows] = same_cells(frame, rows, of_row[rows], labels) < 0
+    if len(rows) < TWICE_ROWS:
+        # a few repeats, each the next row of its site after its twin, in a month of
+        # clock changes: the hour a clock going back writes twice (a calm night can read
+        # the same in every column), never dropped: refused with the clock hint
+        prev = pd.Series(np.arange(n)).groupby(np.asarray(sites, dtype=object),
+                                               sort=False).shift(1).to_numpy()
+        month = pd.DatetimeIndex(np.asarray(t)[rows]).month.to_numpy()
+        clock = (prev[rows] == of_row[rows]) & np.isin(month, CLOCK_BACK_MONTHS)
+        drop[rows[clock]] = False
+    return drop, of_row

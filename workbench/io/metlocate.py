@@ -111,6 +111,8 @@ def suspicious_rows(chunk, names, used, index, off_ns, label, hour):
             firsts[kind] = (i, {c: str(df[c].iat[i]) for c in used})
 
     sites = df["site"].to_numpy(dtype=object)
+    if (sites == "site").any():
+        return None            # the header repeated? the line reader drops it or says so
     site_idx = np.array([index.get(s, -1) for s in sites], dtype=np.int32)
     first(("site",), site_idx < 0)
     s = df["time"]
@@ -260,9 +262,63 @@ def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour
             tab.numbers(name, missing="samples")
 
 
+def repeat_differs(names, used, raw_headers, repeat, line_text, catalogue):
+    """The words of the first cell where the repeated hour's row (:func:`first_repeat`)
+    differs from the first row of its site and hour, as the line reader's
+    :func:`workbench.io.met.check_hours` says them (", which has 'pressure [hPa]'
+    '1010.0' where this line has '1011.0'"); None when the two rows are the same in every
+    cell (an exact repeat, which the line reader drops: the chunked reader hands the file
+    to it).  The cells compared as :func:`workbench.io.methours.same_cells` compares them
+    (numbers as numbers, the time label as the time it names).
+
+    Parameters
+    ----------
+    names : list of str
+        Column names of the header, in order.
+    used : list of str
+        The columns read (``site``, ``time``, the met variables): those whose cells
+        `line_text` gives right; another column before the first difference: None (the
+        line reader compares it).
+    line_text : callable
+        ``line_text(line)`` -> {name: cell} of the columns `used` of that file line.
+    """
+    line, first = repeat[:2]
+    here, there = line_text(line), line_text(first)
+    for c in names:
+        if c not in used:
+            return None
+        a, b = str(here.get(c, "")), str(there.get(c, ""))
+        if c == "time":
+            same = _label_utc(a, here.get("site", ""), catalogue) == \
+                _label_utc(b, there.get("site", ""), catalogue)
+        else:
+            same = a == b or _number(a) == _number(b)
+        if not same:
+            return f", which has {raw_headers.get(c, c)!r} {b!r} where this line has {a!r}"
+    return None
+
+
+def _number(text):
+    try:
+        return float(text)
+    except ValueError:
+        return np.nan
+
+
+def _label_utc(text, site, catalogue):
+    """The time a label names (UTC, before any move onto the whole UTC hour)."""
+    zoned = bool(_OFFSET.search(str(text)))
+    t = parse_iso(pd.Series([str(text)], dtype=object), zoned)
+    if not zoned:
+        t = t - methours.site_offsets_ns(catalogue.utc_offsets([site]))
+    return t[0]
+
+
 def _raise_repeat(path, raw_headers, repeat, line_text, catalogue):
-    """The line reader's error for a repeated hour (workbench.io.met.check_hours)."""
-    line, first, count = repeat
+    """The line reader's error for a repeated hour (workbench.io.met.check_hours); the
+    words of the differing cell, when `repeat` carries them (:func:`repeat_differs`)."""
+    line, first, count = repeat[:3]
+    differs = repeat[3] if len(repeat) > 3 else ""
     value = line_text(line)["time"]
     moved = False     # was either label moved onto the whole UTC hour (off it as read)?
     for k in (line, first):
@@ -278,7 +334,7 @@ def _raise_repeat(path, raw_headers, repeat, line_text, catalogue):
         month = 0
     raise InputError("duplicate hourly timestamp", file=Path(path), line=line,
                      column=raw_headers["time"], value=value,
-                     expected=f"one row per site and hour (also on line {first})"
+                     expected=f"one row per site and hour (also on line {first}{differs})"
                      + methours.clock_change_hint(line == first + 1, month)
                      + methours.repeat_hint(moved)
                      + methours.twice_hint(count, line == first + 1))

@@ -333,6 +333,22 @@ def fields_error(path, line, n_head, cells=None, header=None, others=None) -> In
                       line=line, expected=f"{n_head} fields as in the header")
 
 
+def _header_again(df: pd.DataFrame) -> np.ndarray:
+    """Rows whose every cell is the header's own text (a column without a header, what
+    pandas names ``Unnamed: k``, empty): the header repeated below itself [bool]."""
+    head = np.array(["" if re.match(r"^Unnamed: \d+$", str(c)) else str(c).strip()
+                     for c in df.columns], dtype=object)
+    if not len(df) or (head == "").all():
+        return np.zeros(len(df), bool)
+    site = df.iloc[:, 0].to_numpy(dtype=object) == head[0]     # a cheap first sieve
+    if not site.any():
+        return site
+    out = np.zeros(len(df), bool)
+    out[site] = (df.loc[site].apply(lambda c: c.str.strip()).to_numpy(dtype=object)
+                 == head[None, :]).all(axis=1)
+    return out
+
+
 @dataclass
 class RawTable:
     """A CSV file read as text, with its metadata and parsed headers.
@@ -373,6 +389,9 @@ class RawTable:
     #: column name -> [(raw later column, bool rows)] of a joined unit switch: a
     #: message on such a row names the column the cell was written in.
     switched: dict = field(default_factory=dict)
+    #: File lines below the header that repeat it cell for cell (a file pasted after
+    #: itself, header and all): not read as rows (:meth:`header_again_note`).
+    header_again: np.ndarray = field(default_factory=lambda: np.zeros(0, np.int64))
 
     # ------------------------------------------------------------------ reading
     @classmethod
@@ -430,7 +449,9 @@ class RawTable:
         data = body[body.find("\n") + 1:] if "\n" in body else ""
         if '"' in data or _BLANK.search(data):            # else no cell has any to strip
             df = df.apply(lambda c: c.str.strip())
-        blank = (df == "").all(axis=1).to_numpy()       # blanks and quotes only: blank too
+        blank = (df == "").all(axis=1).to_numpy().copy()   # blanks and quotes only: blank too
+        blank |= _header_again(df)                      # not a row: said in a note
+        again = lines[blank & ~(df == "").all(axis=1).to_numpy()]
         df, lines = df.loc[~blank].reset_index(drop=True), lines[~blank]
         if df.empty:
             raise InputError("no data rows", file=path, line=n_meta + 1,
@@ -461,6 +482,7 @@ class RawTable:
         tab.meta_lines = meta_lines
         tab.unit_switch_notes = switches
         tab.switched = {parse_header(a).name: v for a, v in origin.items()}
+        tab.header_again = again
         return tab
 
     # ------------------------------------------------------------------ helpers
@@ -671,6 +693,16 @@ class RawTable:
         if not parts:
             return ""
         return f"{self.path.name}: cells read as missing (as empty cells): " + "; ".join(parts)
+
+    def header_again_note(self) -> str:
+        """The ledger note of lines repeating the header ("" for none), e.g. ``m.csv: the
+        header repeated on line 8762 (a file pasted after itself?): not read as a row``."""
+        if not len(self.header_again):
+            return ""
+        from .ledger import compact_lines
+        return (f"{self.path.name}: the header repeated on "
+                f"{compact_lines(self.header_again)} (a file pasted after itself?): not "
+                "read as a row")
 
     def end_of_day_note(self) -> str:
         """The ledger note of 24:00 labels read as the next day's 00:00 ("" for none)."""

@@ -530,8 +530,8 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         no_tracer, clipped, gaps = nss_state[name]
         var(f"{name}_tracer_estimated", gaps, "", f"samples of the period with {ion} but "
             f"no {tracer}: their sea salt is the period's {tracer} PWM of its other samples")
-        var(f"{name}_total_used", no_tracer, "", f"no {tracer} in the period: total {ion} "
-            f"used in place of non-sea-salt {ion}")
+        var(f"{name}_total_used", no_tracer, "", f"no {tracer} in the period: "
+            + seasalt.total_in_place(ion))
         var(f"{name}_clipped", clipped, "", f"sea-salt {ion} from {tracer} exceeds the "
             f"measured {ion}: non-sea-salt {ion} clipped at 0")
     all_dep = [(sp, sp, pwm[sp]) for sp in species] + [(n, ion, v) for n, (v, ion) in nss.items()]

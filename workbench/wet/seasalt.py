@@ -28,6 +28,20 @@ SEAWATER_EQ_RATIO_TO_NA = {"Na": 1.0, "Cl": 1.164, "SO4": 0.121, "Mg": 0.227,
 TRACERS = ("Na", "Mg", "Cl")
 #: Ions corrected: sulfate and the base cations (and the tracer-dependent rest).
 CORRECTED = ("SO4", "Ca", "Mg", "K", "Na", "Cl")
+#: The words of a non-sea-salt mean that fell back to the total ion for want of the
+#: tracer, written here only (the wet chain's ``nss<X>_total_used``, the budget's notes,
+#: the dry pSO4 notes); who reads whether a mean fell back reads that flag, never these
+#: words (:func:`total_in_place`).
+TOTAL_IN_PLACE = "total {ion} used in place of non-sea-salt {ion}"
+
+
+def total_in_place(ion: str) -> str:
+    """:data:`TOTAL_IN_PLACE` for `ion`.
+
+    >>> total_in_place("SO4")
+    'total SO4 used in place of non-sea-salt SO4'
+    """
+    return TOTAL_IN_PLACE.format(ion=ion)
 
 
 def seawater_ratio(ion: str, tracer: str = "Na") -> float:
