@@ -255,9 +255,11 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         if _PREV in block:  # found beforehand on the whole record (dask blocks)
             prev = st(_PREV)
         else:  # the whole record is here: the previous hour's, NaN for the first
+            # (wetness.rain_wet then takes this hour's rain alone)
             prev = np.concatenate([np.full(precip.shape[:-1] + (1,), np.nan), precip[..., :-1]],
                                   axis=-1)
         rain = _wetness.rain_wet(precip, prev)
+        assumed = _wetness.previous_unknown(precip, prev)
         if dew_rule == "surface_temperature":
             with np.errstate(invalid="ignore", divide="ignore"):
                 t_s = _wetness.surface_temperature(temp, h_r, ra, us_r, rho)
@@ -266,7 +268,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             deficit = specific_humidity_deficit(temp, rh, pres)
         dew = _wetness.dew_wet(deficit, us_r)
         given = st("surface_wet") if "surface_wet" in block else None
-        wet, kind, wet_src = _wetness.wetness(opt.wetness_rule, rain, dew, given)
+        wet, kind, wet_src = _wetness.wetness(opt.wetness_rule, rain, dew, given, assumed)
 
         here = locals()
         return {k: here[k] for k in _STATE_OUT}
