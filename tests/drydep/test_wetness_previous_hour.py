@@ -86,3 +86,21 @@ def test_record_starting_later_equals_the_whole_record_after_its_first_hour(case
         np.testing.assert_array_equal(part[name].values[..., 1:], later[name].values,
                                       err_msg=name)
     assert (part["wetness_source"].values[..., 0] == 5).all()
+
+
+def test_a_gap_in_the_time_axis_is_no_previous_hour(case):
+    # a row left out of the time axis: the row before is two hours back, not the hour
+    # before; its rain must not wet the hour after the gap (before: it did)
+    surfaces, met = case
+    met = met.copy(deep=True)
+    p = met["precipitation"].values
+    p[:, 100] = 2.0                  # rain two hours before hour 102
+    p[:, 101:104] = 0.0
+    met["precipitation"] = (met["precipitation"].dims, p)
+    cut = met.isel(time=np.r_[0:101, 102:met.sizes["time"]])   # hour 101 left out
+    for m in (cut, cut.chunk({"time": 30})):
+        ds = velocities(m, surfaces, OPT).compute()
+        t = int(np.flatnonzero(ds["time"].values == met["time"].values[102])[0])
+        assert (ds["surface_wet"].values[..., t] == 0).all()
+        assert (ds["wetness_source"].values[..., t] == 5).all()
+        assert (ds["surface_wet"].values[..., t - 1] == 1).all()   # the rain's own hour

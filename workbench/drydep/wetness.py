@@ -99,6 +99,32 @@ def rain_wet(precipitation, previous_precipitation):
     return tri_or(now, before)
 
 
+#: One hour [ns], the step from an hour to the next.
+HOUR = np.timedelta64(3600, "s")
+
+
+def previous_precipitation(precipitation, times):
+    """The rain of the hour before each hour along the last axis: NaN at the first hour
+    and where the row before is not the hour before (a gap in the time axis) [mm].
+
+    Parameters
+    ----------
+    precipitation : ndarray
+        (..., time) depth in the hour. [mm]
+    times : ndarray of datetime64
+        (time,) end of each hour.
+
+    >>> t = np.array(["2021-01-01T01", "2021-01-01T02", "2021-01-01T04"], "datetime64[ns]")
+    >>> previous_precipitation(np.array([0.5, 0.0, 0.0]), t).tolist()
+    [nan, 0.5, nan]
+    """
+    p = np.asarray(precipitation, float)
+    prev = np.concatenate([np.full(p.shape[:-1] + (1,), np.nan), p[..., :-1]], axis=-1)
+    times = np.asarray(times).astype("datetime64[ns]")
+    follows = np.r_[False, np.diff(times) == HOUR]
+    return np.where(follows, prev, np.nan)
+
+
 def previous_unknown(precipitation, previous_precipitation):
     """True where this hour's rain is known and the previous hour's is not: the hours
     :func:`rain_wet` decides on this hour's rain alone.
