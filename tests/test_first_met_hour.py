@@ -1,9 +1,10 @@
-"""The first hour of a met record has no previous hour: its surface wetness is unknown
-unless rain or dew is seen (docs/methods_dry.md section 8), so its modelled Vd is NaN
-(velocities.nc) and the budget fills it from the mean diurnal cycle like any hour without
-a modelled Vd, counted in vd_coverage.  This pins that documented behaviour: the filled
-hour never reads as a modelled one.  Only the record's first hour: a run whose period
-starts inside the record takes the previous hour's rain from the file."""
+"""The first hour of a met record has no previous hour: the rain rule of the surface
+wetness takes that hour's rain alone (docs/methods_dry.md section 8), so a dry first hour
+without dew is dry (``wetness_source`` 5, "previous hour's rain unknown") and keeps its
+modelled Vd.  Before, its wetness was unknown: every Vd of the hour was NaN and the
+budget filled it from the mean diurnal cycle, so the first period looked less complete
+(vd_coverage) than its data was.  A run whose period starts inside the record takes the
+previous hour's rain from the file."""
 import gzip
 import warnings
 
@@ -39,21 +40,22 @@ def first_hour_in_2021(tmp_path_factory):
         return _study(tmp_path_factory.mktemp("first_hour"), "2021-01-01T06:00").run()
 
 
-def test_first_hour_has_no_modelled_vd(first_hour_in_2021):
+def test_first_hour_is_modelled_dry_and_marked(first_hour_in_2021):
     v = first_hour_in_2021.velocities.sel(site="ridge",
                                           receptor=["conifer_forest", "moorland", "grass"])
     wet = v["surface_wet"].values
-    assert np.isnan(wet[..., 0]).all() and np.isfinite(wet[..., 1]).all()
-    assert np.isnan(v["vd_SO2"].values[..., 0]).all()
-    assert np.isfinite(v["vd_SO2"].values[..., 1]).all()
+    assert (wet[..., 0] == 0).all() and np.isfinite(wet[..., 1]).all()
+    # (its wetness_source 5: tests/drydep/test_wetness_previous_hour.py)
+    assert np.isfinite(v["vd_SO2"].values[..., :2]).all()
+    assert np.isfinite(v["vd_pSO4"].values[..., 0]).all()
 
 
-def test_first_hour_counts_as_not_modelled_in_the_budget(first_hour_in_2021):
+def test_first_hour_counts_as_modelled_in_the_budget(first_hour_in_2021):
     t = first_hour_in_2021.table
     dry = t[(t["site"] == "ridge") & (t["period"] == "2021") & (t["pathway"] == "dry")
             & (t["species"] != "all") & (t["status"] != "missing")]
     assert len(dry)
-    # 4 hours before the record plus its first hour have no modelled Vd
+    # only the 4 hours before the record have no modelled Vd (its first hour has one)
     not_modelled = np.round((1.0 - dry["vd_coverage"].to_numpy(float)) * HOURS_2021)
-    assert (not_modelled == 5).all(), not_modelled
+    assert (not_modelled == 4).all(), not_modelled
     assert (dry["flux_coverage"] == 1.0).all()       # the filled hour has a flux

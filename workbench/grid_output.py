@@ -49,8 +49,8 @@ def _attrs(name, grid, mapping) -> dict:
     elif name == "met_missing_hours":
         a = {"units": "1", "long_name": "hours of the period without a deposition velocity "
              "from the cell's own met (a met value the engine needs is missing or was "
-             "masked: of that hour, or the previous hour's rain for the surface wetness, "
-             "unknown at the first hour of the record when it is dry): filled from the "
+             "masked in that hour; the previous hour's rain is not needed: without it the "
+             "hour's own rain decides the surface wetness): filled from the "
              "cell's mean diurnal cycle where it has enough hours, else no Vd (NaN maps "
              "when every hour is missing)",
              "cell_methods": "time: sum"}

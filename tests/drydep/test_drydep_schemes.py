@@ -276,8 +276,8 @@ def test_the_years_missed_are_the_recorded_ones(year_run):
 
 
 def test_the_2021_column_of_the_years_is_the_2021_table(demo_means, year_run):
-    # one run over the record and the run on 2021 alone agree (the 2021 run lacks only
-    # its first hour, whose surface state needs the hour before)
+    # one run over the record and the run on 2021 alone agree (the 2021 run takes its
+    # first hour without the hour before: its own rain alone decides the wetness)
     for scheme, ym in year_run.items():
         for g in ("SO2", "HNO3", "NH3", "NO2", "O3"):
             a = ym[f"vd_{g}"].sel(year=2021)

@@ -254,10 +254,11 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                 cat_src = np.where(cat_src == 0.0, lai_src, cat_src)
         if _PREV in block:  # found beforehand on the whole record (dask blocks)
             prev = st(_PREV)
-        else:  # the whole record is here: the previous hour's, NaN for the first
-            prev = np.concatenate([np.full(precip.shape[:-1] + (1,), np.nan), precip[..., :-1]],
-                                  axis=-1)
+        else:  # the whole record is here: the previous hour's, NaN for the first and
+            # after a gap in the time axis (wetness.rain_wet then takes this hour's alone)
+            prev = _wetness.previous_precipitation(precip, times)
         rain = _wetness.rain_wet(precip, prev)
+        assumed = _wetness.previous_unknown(precip, prev)
         if dew_rule == "surface_temperature":
             with np.errstate(invalid="ignore", divide="ignore"):
                 t_s = _wetness.surface_temperature(temp, h_r, ra, us_r, rho)
@@ -266,7 +267,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             deficit = specific_humidity_deficit(temp, rh, pres)
         dew = _wetness.dew_wet(deficit, us_r)
         given = st("surface_wet") if "surface_wet" in block else None
-        wet, kind, wet_src = _wetness.wetness(opt.wetness_rule, rain, dew, given)
+        wet, kind, wet_src = _wetness.wetness(opt.wetness_rule, rain, dew, given, assumed)
 
         here = locals()
         return {k: here[k] for k in _STATE_OUT}
@@ -607,7 +608,10 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
     if lazy:
         # the steps that look across hours, on the whole record (lazily); in memory
         # _hourly sees the whole record and does them itself
-        aug = aug.assign({_PREV: met["precipitation"].astype(float).shift(time=1)})
+        # (NaN where the row before is not the hour before: wetness.previous_precipitation)
+        follows = (met["time"] - met["time"].shift(time=1)) == _wetness.HOUR
+        aug = aug.assign({_PREV: met["precipitation"].astype(float).shift(time=1)
+                          .where(follows)})
         if opt.seasonal_category is None:
             base = None
             if opt.season_rule == "surface_state":   # per receptor (site, receptor, time)

@@ -118,7 +118,7 @@ class DryOptions:
         Particulate species to compute.
     wetness_rule : str
         ``"met"``: the met file's ``surface_wet`` where given, else the inferred rule
-        (rain in this or the previous hour, or dew); ``"inferred"``: always the rule;
+        (rain in this or the previous hour, this hour alone where the previous one is unknown, or dew); ``"inferred"``: always the rule;
         ``"always_dry"`` / ``"always_wet"``: every hour dry / wet.
     dew_rule : str
         Saturation humidity of the dew rule. ``"surface_temperature"`` (default, both

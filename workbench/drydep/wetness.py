@@ -6,6 +6,10 @@ SO2 falls from thousands of s/m to about 100 s/m when leaves are wet.
 Inferred rule (three-valued: 1 wet, 0 dry, NaN unknown):
 
 * rain: precipitation > 0 mm in this hour or the previous one (common practice);
+  where the previous hour's rain is unknown (the record's first hour, or an hour
+  after a missing one) this hour's rain alone decides, and a dry outcome is marked
+  (``wetness_source`` 5), so the hour keeps a modelled Vd instead of being lost;
+  an hour whose own rain is missing stays unknown (NaN);
 * dew: the saturation deficit in specific humidity below 0.3 g/kg per m/s of
   friction velocity, q_s - q < 0.3e-3 u* (Zhang, Brook and Vet 2003, Atmos. Chem.
   Phys. 3, 2067-2082, section 2; from memory, with q in g/kg);
@@ -49,7 +53,8 @@ DEW_RULES = ("scheme", "surface_temperature", "air_temperature")
 RB_HEAT_PREFACTOR = 2.0
 #: Codes of ``wetness_source``.
 SOURCE = {0: "met file (surface_wet)", 1: "inferred: rain", 2: "inferred: dew",
-          3: "inferred: dry", 4: "set by the wetness_rule option"}
+          3: "inferred: dry", 4: "set by the wetness_rule option",
+          5: "inferred: dry, from this hour's rain alone (previous hour's rain unknown)"}
 
 
 def tri_or(a, b):
@@ -68,14 +73,68 @@ def as_tri(condition, *inputs):
 def rain_wet(precipitation, previous_precipitation):
     """1 where it rained this or the previous hour, 0 if neither, NaN if unknown.
 
+    Where the previous hour's rain is unknown (NaN: the record's first hour, which has
+    none, or an hour after a missing one) this hour's rain alone decides: no rain now
+    counts as dry.  An hour whose own rain is unknown stays NaN.  The rule does not
+    look past the previous hour, so a record cut anywhere along time gives the same
+    value as long as each piece is handed its true previous hour
+    (:func:`previous_unknown` marks the hours the assumption touches).
+
+    Parameters
+    ----------
+    precipitation, previous_precipitation : array_like
+        Depth in the hour. [mm]
+
+    Notes
+    -----
+    Why "dry" and not "unknown": an unknown previous hour can only turn a dry hour
+    wet through rain that stopped within the hour before; losing the hour's Vd
+    altogether (and filling it from a diurnal mean) is a larger error than taking
+    the surface as dry, and a rain that is still falling is seen in the hour itself
+    (common practice; the choice is documented in docs/methods_dry.md section 8).
+    """
+    now = as_tri(precipitation > RAIN_THRESHOLD, precipitation)
+    before = as_tri(previous_precipitation > RAIN_THRESHOLD, previous_precipitation)
+    before = where(np.isnan(before), 0.0, before)
+    return tri_or(now, before)
+
+
+#: One hour [ns], the step from an hour to the next.
+HOUR = np.timedelta64(3600, "s")
+
+
+def previous_precipitation(precipitation, times):
+    """The rain of the hour before each hour along the last axis: NaN at the first hour
+    and where the row before is not the hour before (a gap in the time axis) [mm].
+
+    Parameters
+    ----------
+    precipitation : ndarray
+        (..., time) depth in the hour. [mm]
+    times : ndarray of datetime64
+        (time,) end of each hour.
+
+    >>> t = np.array(["2021-01-01T01", "2021-01-01T02", "2021-01-01T04"], "datetime64[ns]")
+    >>> previous_precipitation(np.array([0.5, 0.0, 0.0]), t).tolist()
+    [nan, 0.5, nan]
+    """
+    p = np.asarray(precipitation, float)
+    prev = np.concatenate([np.full(p.shape[:-1] + (1,), np.nan), p[..., :-1]], axis=-1)
+    times = np.asarray(times).astype("datetime64[ns]")
+    follows = np.r_[False, np.diff(times) == HOUR]
+    return np.where(follows, prev, np.nan)
+
+
+def previous_unknown(precipitation, previous_precipitation):
+    """True where this hour's rain is known and the previous hour's is not: the hours
+    :func:`rain_wet` decides on this hour's rain alone.
+
     Parameters
     ----------
     precipitation, previous_precipitation : array_like
         Depth in the hour. [mm]
     """
-    now = as_tri(precipitation > RAIN_THRESHOLD, precipitation)
-    before = as_tri(previous_precipitation > RAIN_THRESHOLD, previous_precipitation)
-    return tri_or(now, before)
+    return ~np.isnan(precipitation) & np.isnan(previous_precipitation)
 
 
 def dew_wet(humidity_deficit, ustar):
@@ -97,7 +156,7 @@ def dew_wet(humidity_deficit, ustar):
     return as_tri(humidity_deficit < DEW_COEFFICIENT * ustar, humidity_deficit, ustar)
 
 
-def wetness(rule, rain, dew, given=None):
+def wetness(rule, rain, dew, given=None, assumed=None):
     """Surface wetness, its kind and its source.
 
     Parameters
@@ -107,6 +166,9 @@ def wetness(rule, rain, dew, given=None):
         Outputs of :func:`rain_wet` and :func:`dew_wet` (1/0/NaN).
     given : array_like, optional
         ``surface_wet`` of the met file (1/0/NaN).
+    assumed : array_like of bool, optional
+        Hours whose rain was judged without the previous hour
+        (:func:`previous_unknown`): an inferred dry outcome there has source 5.
 
     Returns
     -------
@@ -120,6 +182,8 @@ def wetness(rule, rain, dew, given=None):
     """
     inferred = tri_or(rain, dew)
     src_inf = where(rain == 1, 1.0, where(dew == 1, 2.0, where(inferred == 0, 3.0, np.nan)))
+    if assumed is not None:
+        src_inf = where(assumed & (src_inf == 3.0), 5.0, src_inf)
     shape = where(np.isnan(inferred), 0.0, 0.0)  # zeros of the broadcast shape
     if rule in ("always_dry", "always_wet"):
         wet = shape + (1.0 if rule == "always_wet" else 0.0)
