@@ -390,6 +390,27 @@ def _scales(name, path, species) -> bool:
                     "bulk_wet_factor": "wet"}.get(name)
 
 
+#: The one dry species an engine factor of each kind acts on, from its name (the
+#: particle of ``fine_fraction_``/``fine_mmd_``, the gas of ``rc_scale_``, NH3 for
+#: ``nh3_gamma_``); ``z0_`` and ``wetness_rule`` act on every dry species.
+SPECIES_OF = {"fine_fraction": lambda n: n[len("fine_fraction_"):],
+              "fine_mmd": lambda n: n[len("fine_mmd_"):],
+              "rc_scale": lambda n: n[len("rc_scale_"):],
+              "nh3_gamma": lambda n: "NH3"}
+
+
+def _reaches(name, kind, path, species) -> bool:
+    """Whether factor `name` (of `kind`, :func:`factor_kind`) acts on the component
+    (path, species): a linear factor by :func:`_scales`, an engine factor tied to one
+    species (:data:`SPECIES_OF`) on that species' dry deposition only; the others
+    (``z0_``, ``wetness_rule``) on no single component (no note of missing data)."""
+    if kind == "linear":
+        return _scales(name, path, species)
+    if kind in SPECIES_OF:
+        return path == "dry" and species == SPECIES_OF[kind](name)
+    return False
+
+
 def bulk_sites(catalogue) -> set:
     """Ids of the sites with a bulk collector now or before a declared change."""
     from ..surfacehistory import collector_history
@@ -433,7 +454,10 @@ def row_note(name, element, quantity, data, has_bulk=None, classes=None) -> str:
 
     An index 0 because the factor reaches only components without data at the site
     (a species not measured, a particle counted in a bulk collector's wet) says so,
-    with the budget's note: it is no small effect.  A total lacking components says
+    with the budget's note: it is no small effect.  This holds for the engine factors
+    tied to one species as for the ``vd_`` multipliers: ``fine_fraction_<particle>``,
+    ``fine_mmd_<particle>``, ``rc_scale_<gas>`` and ``nh3_gamma_<class>`` (NH3) where
+    that species is not measured (before, their zeros carried no note).  A total lacking components says
     that its indices are those of its measured part.
 
     Parameters
@@ -456,15 +480,14 @@ def row_note(name, element, quantity, data, has_bulk=None, classes=None) -> str:
     lacking, idle = data
     key = next(k for e, qn, k in OUTPUTS if e == element and qn == quantity)
     parts = []
-    if factor_kind(name) == "linear":
-        reach = [(path, sp) for el, path, sp in COMPONENTS
-                 if (element == "S+N" or el == element)
-                 and quantity in ("total", "potential_acidity", path)
-                 and _scales(name, path, sp)]
-        if reach and all(c in idle for c in reach):
-            parts.append("no effect for want of data: " + "; ".join(
-                f"{path} {sp} {idle[(path, sp)]}" for path, sp in reach))
     kind = factor_kind(name)
+    reach = [(path, sp) for el, path, sp in COMPONENTS
+             if (element == "S+N" or el == element)
+             and quantity in ("total", "potential_acidity", path)
+             and _reaches(name, kind, path, sp)]
+    if reach and all(c in idle for c in reach):
+        parts.append("no effect for want of data: " + "; ".join(
+            f"{path} {sp} {idle[(path, sp)]}" for path, sp in reach))
     if kind in ("z0", "nh3_gamma") and classes is not None:
         cls = name[len("z0_"):] if kind == "z0" else name[len("nh3_gamma_"):]
         if cls not in classes:
