@@ -92,8 +92,10 @@ def nh3_gamma_range(land_use: str) -> tuple:
     g = float(EMISSION_POTENTIAL[land_use])
     if not g > 0:
         raise FactorError(f"SensitivityOptions.factors.nh3_gamma_{land_use} = []: the class "
-                          f"has no stomatal emission potential by default (Gamma_s {g:g}); "
-                          "give the range [low, high]", f"nh3_gamma_{land_use}")
+                          f"has no stomatal emission potential by default (Gamma_s {g:g}; "
+                          "no canopy: the bidirectional model leaves it deposition-only), "
+                          "so a multiplier of it has nothing to act on; leave the factor "
+                          "out", f"nh3_gamma_{land_use}")
     return (round(1.0 / DEFAULT_NH3_GAMMA_GSD, 3), float(DEFAULT_NH3_GAMMA_GSD))
 
 
