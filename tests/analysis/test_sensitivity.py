@@ -184,7 +184,7 @@ def _row(t, element, quantity, factor):
 def test_rc_scale_and_nh3_gamma_factors_move_the_dry_totals(tiny, tmp_path):
     study, base = _variant(tiny, tmp_path)
     opt = S.SensitivityOptions(factors={"rc_scale_SO2": [], "rc_scale_NH3": (0.5, 2.0),
-                                        "nh3_gamma_grass": (0.0, 5000.0)})
+                                        "nh3_gamma_grass": (0.0, 100.0)})
     assert opt.factors["rc_scale_SO2"] == (0.5, 2.0)            # the default range
     t = S.tornado(study, base, opt, KW)
     so2 = _row(t, "S", "dry", "rc_scale_SO2")
@@ -209,9 +209,9 @@ def test_rc_scale_and_nh3_gamma_factors_move_the_dry_totals(tiny, tmp_path):
 
 def test_new_engine_factors_change_the_dry_options_and_refuse_unknown_names():
     from workbench.drydep import DryOptions
-    dry = S.apply_engine(DryOptions(), {"rc_scale_O3": 2.0, "nh3_gamma_crops": 800.0})
+    dry = S.apply_engine(DryOptions(), {"rc_scale_O3": 2.0, "nh3_gamma_crops": 0.8})
     assert dry.rc_scale == {"O3": 2.0}
-    assert dry.nh3_emission_potential == {"crops": 800.0}
+    assert dry.nh3_emission_potential == {"crops": pytest.approx(800.0)}   # 0.8 x 1000
     assert dry.nh3_treatment == "bidirectional"              # the factor switches it on
     assert S.apply_engine(DryOptions(), {"nh3_gamma_crops": None}) == DryOptions()
     with pytest.raises(ValueError, match="unknown gas in factor 'rc_scale_XY'"):

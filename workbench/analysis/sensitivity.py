@@ -16,14 +16,17 @@ Factors (scenario section ``[sensitivity]``, table ``factors``: name -> range):
   [m] of a particle's fine mode, ``z0_<land use>`` [m] the roughness length of a
   receptor class (``DryOptions.roughness``), ``rc_scale_<gas>`` [1] a multiplier of a
   gas's surface resistance (``DryOptions.rc_scale``; [0.5, 2.0] when named with ``[]``),
-  ``nh3_gamma_<land use>`` [1] the stomatal NH3 emission potential Gamma_s of a class
-  (``DryOptions.nh3_emission_potential``; named with ``[]``, the class default over
-  +-1 GSD of the Monte Carlo's ``nh3_gamma_gsd``, the same spread as its draws,
+  ``nh3_gamma_<land use>`` [1] a multiplier of the stomatal NH3 emission potential
+  Gamma_s of a class in force at each site (the class default, the scenario's
+  ``[dry] nh3_emission_potential`` for the class or ``"<site>/<class>"``, or the site's
+  own value in sites.toml: each scaled by the same factor, as the Monte Carlo's G;
+  named with ``[]``, +-1 GSD of its ``nh3_gamma_gsd``,
   :func:`.sensitivity_options.nh3_gamma_range`).  ``nh3_gamma_*`` switches the bidirectional
   NH3 model on (``nh3_treatment = "bidirectional"``) in every run where it has a value,
-  so its low and high ends compare with each other, not with a deposition-only base;
-  a site's own Gamma_s for the class (sites.toml, or a ``"<site>/<class>"`` key) still
-  wins over the factor there.
+  so its low and high ends compare with each other, not with a deposition-only base.
+  Before, the factor was Gamma_s itself, its ``[]`` range centred on the class default,
+  and a site's own Gamma_s won over it: where the scenario or a site overrode the
+  class, the analysis explored values that were not in force, or nothing.
 
 Saltelli's scheme (Sobol sequences, first-order and total indices) and the
 estimators are SALib's (Herman and Usher 2017, J. Open Source Softw. 2(9), 97;
@@ -111,12 +114,18 @@ def engine_value(name, options, x):
     return float(x)
 
 
-def apply_engine(dry, values: dict):
-    """DryOptions with the engine factors set (name -> value)."""
+def apply_engine(dry, values: dict, site_gamma=None):
+    """DryOptions with the engine factors set (name -> value).
+
+    `site_gamma` holds the catalogue's site potentials (``"<site>/<class>"`` -> Gamma_s
+    [-], :meth:`workbench.io.sites.Catalogue.nh3_emission_potential`): an
+    ``nh3_gamma_<class>`` multiplier scales them too, with the scenario's keys for the
+    class and the class default (:func:`scaled_gamma`)."""
     modes = dict(dry.particle_modes)
     rough = dict(dry.roughness)
     rc_scale = dict(dry.rc_scale)
     gamma = dict(dry.nh3_emission_potential)
+    scale = {}
     changes = {}
     for name, v in values.items():
         kind = factor_kind(name)
@@ -137,10 +146,35 @@ def apply_engine(dry, values: dict):
         elif kind == "rc_scale":
             rc_scale[name[len("rc_scale_"):]] = v
         elif kind == "nh3_gamma":                      # the factor switches the model on
-            gamma[name[len("nh3_gamma_"):]] = v
+            scale[name[len("nh3_gamma_"):]] = v
             changes["nh3_treatment"] = "bidirectional"
+    if scale:
+        gamma = scaled_gamma(gamma, scale, site_gamma)
     return dataclasses.replace(dry, particle_modes=modes, roughness=rough, rc_scale=rc_scale,
                                nh3_emission_potential=gamma, **changes)
+
+
+def scaled_gamma(given: dict, scale: dict, site_gamma=None) -> dict:
+    """Gamma_s keys of ``DryOptions.nh3_emission_potential`` with each class of `scale`
+    (class -> multiplier [1]) multiplied wherever it is in force [-].
+
+    The catalogue's site keys (`site_gamma`) are taken in under the scenario's
+    (`given`, whose keys win, as in the velocities stage); then the class key (given,
+    else the class default) and every ``"<site>/<class>"`` key of the class are
+    multiplied, so that each site's Gamma_s in force is scaled once.
+
+    >>> scaled_gamma({"farm/crops": 2000.0}, {"crops": 0.5}, {"mill/crops": 400.0})
+    {'mill/crops': 200.0, 'farm/crops': 1000.0, 'crops': 500.0}
+    """
+    from ..drydep.nh3_bidirectional import EMISSION_POTENTIAL
+    out = {**(site_gamma or {}), **given}
+    for key in list(out):
+        cls = str(key).split("/")[-1]
+        if "/" in str(key) and cls in scale:
+            out[key] = float(out[key]) * scale[cls]
+    for cls, m in scale.items():
+        out[cls] = float(out.get(cls, EMISSION_POTENTIAL[cls])) * m
+    return out
 
 
 def linear_outputs(layer, site: int, values: dict, n: int) -> dict:
@@ -210,8 +244,11 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
     for r, key in enumerate(keys):
         groups.setdefault(key, []).append(r)
     y = coords = None
+    site_gamma = (study.catalogue(run_kwargs.get("overrides")).nh3_emission_potential()
+                  if any(factor_kind(names[i]) == "nh3_gamma" for i in engine) else None)
     for key, rows in (progress(groups.items()) if progress else groups.items()):
-        dry = apply_engine(base_options["dry"], dict(zip([names[i] for i in engine], key)))
+        dry = apply_engine(base_options["dry"], dict(zip([names[i] for i in engine], key)),
+                           site_gamma)
         res = study.run(base_options["wet"], dry, base_options["budget"],
                         base_options.get("fixed_velocity"), **run_kwargs)
         layer = linear_layer(res, study, overrides=run_kwargs.get("overrides"))
@@ -390,6 +427,27 @@ def _scales(name, path, species) -> bool:
                     "bulk_wet_factor": "wet"}.get(name)
 
 
+#: The one dry species an engine factor of each kind acts on, from its name (the
+#: particle of ``fine_fraction_``/``fine_mmd_``, the gas of ``rc_scale_``, NH3 for
+#: ``nh3_gamma_``); ``z0_`` and ``wetness_rule`` act on every dry species.
+SPECIES_OF = {"fine_fraction": lambda n: n[len("fine_fraction_"):],
+              "fine_mmd": lambda n: n[len("fine_mmd_"):],
+              "rc_scale": lambda n: n[len("rc_scale_"):],
+              "nh3_gamma": lambda n: "NH3"}
+
+
+def _reaches(name, kind, path, species) -> bool:
+    """Whether factor `name` (of `kind`, :func:`factor_kind`) acts on the component
+    (path, species): a linear factor by :func:`_scales`, an engine factor tied to one
+    species (:data:`SPECIES_OF`) on that species' dry deposition only; the others
+    (``z0_``, ``wetness_rule``) on no single component (no note of missing data)."""
+    if kind == "linear":
+        return _scales(name, path, species)
+    if kind in SPECIES_OF:
+        return path == "dry" and species == SPECIES_OF[kind](name)
+    return False
+
+
 def bulk_sites(catalogue) -> set:
     """Ids of the sites with a bulk collector now or before a declared change."""
     from ..surfacehistory import collector_history
@@ -433,7 +491,10 @@ def row_note(name, element, quantity, data, has_bulk=None, classes=None) -> str:
 
     An index 0 because the factor reaches only components without data at the site
     (a species not measured, a particle counted in a bulk collector's wet) says so,
-    with the budget's note: it is no small effect.  A total lacking components says
+    with the budget's note: it is no small effect.  This holds for the engine factors
+    tied to one species as for the ``vd_`` multipliers: ``fine_fraction_<particle>``,
+    ``fine_mmd_<particle>``, ``rc_scale_<gas>`` and ``nh3_gamma_<class>`` (NH3) where
+    that species is not measured (before, their zeros carried no note).  A total lacking components says
     that its indices are those of its measured part.
 
     Parameters
@@ -456,15 +517,14 @@ def row_note(name, element, quantity, data, has_bulk=None, classes=None) -> str:
     lacking, idle = data
     key = next(k for e, qn, k in OUTPUTS if e == element and qn == quantity)
     parts = []
-    if factor_kind(name) == "linear":
-        reach = [(path, sp) for el, path, sp in COMPONENTS
-                 if (element == "S+N" or el == element)
-                 and quantity in ("total", "potential_acidity", path)
-                 and _scales(name, path, sp)]
-        if reach and all(c in idle for c in reach):
-            parts.append("no effect for want of data: " + "; ".join(
-                f"{path} {sp} {idle[(path, sp)]}" for path, sp in reach))
     kind = factor_kind(name)
+    reach = [(path, sp) for el, path, sp in COMPONENTS
+             if (element == "S+N" or el == element)
+             and quantity in ("total", "potential_acidity", path)
+             and _reaches(name, kind, path, sp)]
+    if reach and all(c in idle for c in reach):
+        parts.append("no effect for want of data: " + "; ".join(
+            f"{path} {sp} {idle[(path, sp)]}" for path, sp in reach))
     if kind in ("z0", "nh3_gamma") and classes is not None:
         cls = name[len("z0_"):] if kind == "z0" else name[len("nh3_gamma_"):]
         if cls not in classes:

@@ -64,22 +64,39 @@ def _powers_of_two_near(n: int) -> str:
     return f"{below} or {below * 2}"
 
 
+#: Largest end of an ``nh3_gamma_<land use>`` range read as a multiplier (our choice):
+#: ten times beyond the +-1 GSD of ``nh3_gamma_gsd`` (3), far past the scatter of
+#: measured Gamma_s within one kind of surface; a larger end is an absolute Gamma_s
+#: written as before the factor became a multiplier, refused with the multiplier meant.
+NH3_GAMMA_MAX_MULTIPLIER = 100.0
+
+
 def nh3_gamma_range(land_use: str) -> tuple:
-    """Range of an ``nh3_gamma_<land use>`` factor named with an empty range: the
-    class default Gamma_s (:data:`workbench.drydep.nh3_bidirectional.EMISSION_POTENTIAL`)
-    over +-1 GSD of the Monte Carlo's ``nh3_gamma_gsd`` default (3, our choice, from
-    memory of Massad et al. 2010), as the Vd factors span +-1 GSD [-].
+    """Range of an ``nh3_gamma_<land use>`` factor named with an empty range [1]: a
+    multiplier of the Gamma_s in force over +-1 GSD of the Monte Carlo's
+    ``nh3_gamma_gsd`` default (3, our choice, from memory of Massad et al. 2010), as
+    the Vd factors span +-1 GSD.  The factor multiplies the class's Gamma_s wherever it
+    is in force: the class default
+    (:data:`workbench.drydep.nh3_bidirectional.EMISSION_POTENTIAL`), the scenario's
+    ``[dry] nh3_emission_potential`` for the class or for ``"<site>/<class>"``, or a
+    site's own value in sites.toml (:func:`workbench.analysis.sensitivity.apply_engine`).
+    Before, the range was the class default times/over the GSD, taken as Gamma_s
+    itself, and explored values that were not the ones in force where the scenario or
+    a site overrode the class; a class with different values at different sites has
+    one range only as a multiplier.
 
     >>> nh3_gamma_range("crops")
-    (333.333, 3000.0)
+    (0.333, 3.0)
     """
     from ..drydep.nh3_bidirectional import EMISSION_POTENTIAL
     g = float(EMISSION_POTENTIAL[land_use])
     if not g > 0:
         raise FactorError(f"SensitivityOptions.factors.nh3_gamma_{land_use} = []: the class "
-                          f"has no stomatal emission potential by default (Gamma_s {g:g}); "
-                          "give the range [low, high]", f"nh3_gamma_{land_use}")
-    return (round(g / DEFAULT_NH3_GAMMA_GSD, 3), g * DEFAULT_NH3_GAMMA_GSD)
+                          f"has no stomatal emission potential by default (Gamma_s {g:g}; "
+                          "no canopy: the bidirectional model leaves it deposition-only), "
+                          "so a multiplier of it has nothing to act on; leave the factor "
+                          "out", f"nh3_gamma_{land_use}")
+    return (round(1.0 / DEFAULT_NH3_GAMMA_GSD, 3), float(DEFAULT_NH3_GAMMA_GSD))
 
 
 def _default_factors() -> dict:
@@ -106,8 +123,9 @@ class SensitivityOptions:
     factors : dict
         factor name -> [low, high] (a uniform range) or, for ``wetness_rule``, a list
         of rules; ``rc_scale_<gas>`` named with ``[]`` takes [0.5, 2.0],
-        ``nh3_gamma_<land use>`` named with ``[]`` the class default Gamma_s over +-1 GSD
-        of the Monte Carlo's ``nh3_gamma_gsd`` (:func:`nh3_gamma_range`).  Default: the Vd of every dry species over +-1 GSD of the
+        ``nh3_gamma_<land use>`` (a multiplier of the class's Gamma_s in force at
+        each site) named with ``[]`` +-1 GSD of the Monte Carlo's ``nh3_gamma_gsd``
+        (:func:`nh3_gamma_range`).  Default: the Vd of every dry species over +-1 GSD of the
         ``[uncertainty]`` defaults, gauge catch and the concentrations +-10 %, and,
         where a site analysed has bulk-collector samples under ``bulk_correction =
         "scale_wet"``, ``bulk_wet_factor`` (a multiplier of every ion's factor) over
@@ -165,6 +183,13 @@ class SensitivityOptions:
             if kind == "rc_scale" and not rng[0] > 0:
                 raise FactorError(f"SensitivityOptions.factors.{name}: a multiplier of Rc "
                                   "must be > 0", name)
+            if kind == "nh3_gamma" and rng[1] > NH3_GAMMA_MAX_MULTIPLIER:
+                raise FactorError(f"SensitivityOptions.factors.{name} = {list(rng)}: a "
+                                  "multiplier of the class's Gamma_s in force (the default, "
+                                  "the scenario's or the site's), at most "
+                                  f"{NH3_GAMMA_MAX_MULTIPLIER:g}; not Gamma_s itself (e.g. "
+                                  f"{list(nh3_gamma_range('crops'))}, the Monte Carlo's "
+                                  "+-1 GSD)", name)
             if kind == "fine_fraction" and rng[1] > 1:
                 raise FactorError(f"SensitivityOptions.factors.{name}: a fraction is at most 1",
                                   name)

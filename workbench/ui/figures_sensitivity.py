@@ -26,7 +26,8 @@ def _pick(frame, site, receptor, period, element, quantity):
 
 def _labels(frames) -> dict:
     """factor -> its axis label: ``vd_NO2 (no data)`` where the rows' ``note`` says the
-    factor reaches only components without data at the site, ``(no effect)`` where it
+    factor reaches only components without data at the site (any factor tied to a
+    species: ``vd_``, ``fine_fraction_``, ``fine_mmd_``, ``rc_scale_``, ``nh3_gamma_``), ``(no effect)`` where it
     says the factor has nothing to act on (no bulk-collector samples).  Before, such a
     factor's empty bar looked like a measured nil effect; the note was in the CSV only."""
     out = {}
