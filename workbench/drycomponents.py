@@ -38,7 +38,7 @@ from .periods import hour_bounds
 
 @_graph.stage("period_shares")
 def period_shares(o, rows, periods, n_sites, times):
-    """One piece of rows shared among reporting periods (:func:`workbench.dryflux.share_to_periods`)."""
+    """One piece of rows shared among reporting periods (:func:`share_to_periods`)."""
     r = rows[0] if isinstance(rows, tuple) else rows
     return share_to_periods(r["site_index"], r["a"], r["b"], r["deposition"], r["cs"],
                             n_sites, period_axes(periods), times, r["start"], r["end"],
@@ -55,7 +55,7 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
     periods : pandas.DataFrame
     share : callable, optional
         ``share(name, rows_piece)`` -> the piece shared among `periods` (the output of
-        :func:`workbench.dryflux.share_to_periods`); `name` is the piece's entry of ``rows["keys"]``.
+        :func:`.dryflux.share_to_periods`); `name` is the piece's entry of ``rows["keys"]``.
         The pipeline runs it as the ``period_shares`` stage, so that an option
         touching one species shares that species only.  Default: computed here.
 

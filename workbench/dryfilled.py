@@ -18,13 +18,13 @@ def covered_filled_share(site_index, a, b, c_fill, pa, pb, cn=None, known=None):
     sampling period whose deposition is known: only they enter it.  Of these, an hour
     counts as not modelled when its Vd was filled from the diurnal cycle or, without
     any Vd (nor air density, for a mixing ratio), took the sampling period's mean Vd
-    (:func:`workbench.dryflux.deposition_rows`).  A fill outside them changes nothing, and a fill inside
+    (:func:`.dryflux.deposition_rows`).  A fill outside them changes nothing, and a fill inside
     them weighs by their number, not by the period's (docs/budget.md, "Gaps in Vd").
 
     Parameters
     ----------
     site_index, a, b : ndarray of int (n,)
-        Site row and hour bounds of each sampling period (:func:`workbench.dryflux.deposition_rows`).
+        Site row and hour bounds of each sampling period (:func:`.dryflux.deposition_rows`).
     c_fill : ndarray (S, R, T + 1)
         Cumulative count of filled hours [1].
     pa, pb : ndarray of int (P,)
@@ -65,7 +65,7 @@ def row_filled_hours(site_index, a, b, c_fill, pa, pb, cn=None):
     Parameters
     ----------
     site_index, a, b : ndarray of int (n,)
-        Site row and hour bounds of each sampling period (:func:`workbench.dryflux.deposition_rows`).
+        Site row and hour bounds of each sampling period (:func:`.dryflux.deposition_rows`).
     c_fill : ndarray (S, R, T + 1)
         Cumulative count of filled hours [1].
     pa, pb : ndarray of int (P,)

@@ -103,22 +103,25 @@ def _rows_by_cell(flag, r, periods, n_p):
 
 def _pso4_cell_notes(rows: dict, periods, sites, key: str, words) -> np.ndarray:
     """Words per (site, period) naming the pSO4 samples flagged by ``rows[key]`` (bool
-    per pSO4 row); "" elsewhere. ``words(n, n_all, names, sub)`` writes a cell's
+    per pSO4 row); "" elsewhere. ``words(n, n_all, names, sub, whole)`` writes a cell's
     sentence from the number flagged, the number of pSO4 samples of the cell, their
-    start dates and the words of the censored substitute."""
+    start dates, the words of the censored substitute and whether every pSO4 sample of
+    the site is flagged."""
     n_s, n_p = len(sites), len(periods)
     out = np.full((n_s, n_p), "", dtype=object)
     flag = rows.get(key)
     r = rows["species"].get("pSO4")
     if flag is None or r is None or not np.any(flag):
         return out
-    agg, each = _rows_by_cell(np.asarray(flag, bool), r, periods, n_p)
+    fl = np.asarray(flag, bool)
+    agg, each = _rows_by_cell(fl, r, periods, n_p)
     si = np.asarray(r["site_index"])
     sub = rows.get("pSO4_na_substitute") or CENSORED_WORDS["half"]
+    whole = {s_: bool(fl[si == s_].all()) for s_ in np.unique(si)}
     for cell, names in agg.items():          # one entry per (site, period) cell named
         s_, p_ = divmod(int(cell), n_p)
         n_all = int((each[:, p_] & (si == s_)).sum())
-        out[s_, p_] = words(len(names), n_all, ", ".join(names), sub)
+        out[s_, p_] = words(len(names), n_all, ", ".join(names), sub, whole.get(s_, False))
     return out
 
 
@@ -129,13 +132,13 @@ def censored_na_notes(rows: dict, periods, sites) -> np.ndarray:
     Parameters
     ----------
     rows : dict
-        Output of :func:`workbench.dryrows.dry_rows` (``rows["pSO4_na_censored"]``: bool per pSO4 row;
+        Output of :func:`.dryrows.dry_rows` (``rows["pSO4_na_censored"]``: bool per pSO4 row;
         ``rows["pSO4_na_substitute"]``: the words of the substitute).
     periods : pandas.DataFrame
     sites : sequence of str
     """
     return _pso4_cell_notes(rows, periods, sites, "pSO4_na_censored",
-                            lambda n, n_all, names, sub: (
+                            lambda n, n_all, names, sub, whole: (
         f"pNa below detection in {n} of {n_all} pSO4 samples (from {names}): their "
         f"sea-salt sulfate from {sub} (air_censored), drawn with the spread of a value "
         "between 0 and the limit in the Monte Carlo"))
@@ -149,13 +152,13 @@ def censored_nss_notes(rows: dict, periods, sites) -> np.ndarray:
     Parameters
     ----------
     rows : dict
-        Output of :func:`workbench.dryrows.dry_rows` (``rows["pSO4_nss_censored"]``: bool per pSO4 row;
+        Output of :func:`.dryrows.dry_rows` (``rows["pSO4_nss_censored"]``: bool per pSO4 row;
         ``rows["pSO4_na_substitute"]``: the words of the substitute).
     periods : pandas.DataFrame
     sites : sequence of str
     """
     return _pso4_cell_notes(rows, periods, sites, "pSO4_nss_censored",
-                            lambda n, n_all, names, sub: (
+                            lambda n, n_all, names, sub, whole: (
         f"pSO4 below detection in {n} of {n_all} pSO4 samples (from {names}): their "
         f"non-sea-salt pSO4 from {sub} (air_censored) of the limit less the sea-salt "
         "sulfate of their pNa (0 where the sea salt reaches the limit)"))
@@ -170,30 +173,14 @@ def total_used_notes(rows: dict, periods, sites) -> np.ndarray:
     Parameters
     ----------
     rows : dict
-        Output of :func:`workbench.dryrows.dry_rows` (``rows["pSO4_total_used"]``: bool per pSO4 row).
+        Output of :func:`.dryrows.dry_rows` (``rows["pSO4_total_used"]``: bool per pSO4 row).
     periods : pandas.DataFrame
     sites : sequence of str
     """
-    n_s, n_p = len(sites), len(periods)
-    out = np.full((n_s, n_p), "", dtype=object)
-    flag = rows.get("pSO4_total_used")
-    r = rows["species"].get("pSO4")
-    if flag is None or r is None or not np.any(flag):
-        return out
-    agg, each = _rows_by_cell(np.asarray(flag, bool), r, periods, n_p)
-    si = np.asarray(r["site_index"])
-    if not len(agg):
-        return out
-    fl = np.asarray(flag, bool)
-    none_at = {s_: bool(fl[si == s_].all()) for s_ in np.unique(si)}
-    for cell, names in agg.items():          # one entry per flagged (site, period) cell
-        s_, p_ = divmod(int(cell), n_p)
-        n_all = int((each[:, p_] & (si == s_)).sum())
-        if none_at.get(s_, False):
-            out[s_, p_] = (f"{NO_PNA_AT_SITE}: total pSO4 used in place of non-sea-salt "
-                           "pSO4 (sea salt included, an upper bound; small inland)")
-        else:
-            out[s_, p_] = (f"pNa missing in {len(names)} of {n_all} pSO4 samples (from "
-                           f"{', '.join(names)}): total pSO4 used for them (sea salt "
-                           "included)")
-    return out
+    def words(n, n_all, names, sub, whole):
+        if whole:
+            return (f"{NO_PNA_AT_SITE}: total pSO4 used in place of non-sea-salt "
+                    "pSO4 (sea salt included, an upper bound; small inland)")
+        return (f"pNa missing in {n} of {n_all} pSO4 samples (from {names}): total pSO4 "
+                "used for them (sea salt included)")
+    return _pso4_cell_notes(rows, periods, sites, "pSO4_total_used", words)

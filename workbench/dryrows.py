@@ -61,7 +61,7 @@ def flux_inputs(o, air, axes, met, species, sites):
 
 @_graph.stage("species_rows")
 def species_rows(o, inputs, fill, times):
-    """Deposition over every sampling period of one species (:func:`workbench.dryflux.deposition_rows`)."""
+    """Deposition over every sampling period of one species (:func:`deposition_rows`)."""
     si, conc, quantity, weight, n_air, notes, t0, t1, cens = inputs[1:]
     r = deposition_rows(conc, quantity, si, t0, t1, times, fill["v_np"], n_air, weight)
     r["site_index"] = si
@@ -98,7 +98,7 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
     ----------
     air : xarray.Dataset or workbench.graph.Node
     vel : dict
-        species -> the (vd, was, source) triples of :func:`workbench.dryvelocities.prepare_velocities`, or
+        species -> the (vd, was, source) triples of :func:`.dryvelocities.prepare_velocities`, or
         Nodes of :func:`workbench.dryvelocities.fill_arrays` results (the fill stage's).
     met : xarray.Dataset or None
     sites : list of str
@@ -122,18 +122,18 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
         :func:`workbench.dryflux.deposition_rows` plus ``site_index``; ``"vd_cum"``:
         species -> cumulative counts of modelled and filled Vd hours; ``"bracket"``:
         (pair, how) -> member -> the member's rows over its own sampling periods with
-        the Vd of :func:`workbench.budgetstatus.bracket_velocities` (the pair need not share samples);
+        the Vd of :func:`.budgetstatus.bracket_velocities` (the pair need not share samples);
         ``"split"``: pair -> (species moved into, other member, how) under
         ``options.pair_split`` (:func:`workbench.drypairs.split_pairs`; empty for
-        "measured"), whose components :func:`workbench.drycomponents.dry_components` builds from the bracket's
-        rows (:func:`workbench.drypairs.apply_split`), the moved-into species
+        "measured"), whose components :func:`.drycomponents.dry_components` builds from
+        the bracket's rows (:func:`workbench.drypairs.apply_split`), the moved-into species
         ``measured`` where both members are;
-        ``"nh3_exchange"`` (when `vel` holds :data:`workbench.dryvelocities.NH3_EXCHANGE`): the deposition and
-        emission parts of the net NH3 flux per NH3 sampling period (and, when
+        ``"nh3_exchange"`` (when `vel` holds :data:`.dryvelocities.NH3_EXCHANGE`): the
+        deposition and emission parts of the net NH3 flux per NH3 sampling period (and, when
         ``pair_split`` moves pNH4 into NH3, ``"moved"``: the pNH4 rows with the
         exchange's Vd); ``"notes"``,
         ``"measured"`` (site x species bool), ``"receptors"``, ``"times"``, ``"sites"``;
-        ``"keys"``: the node key of each piece of rows (for :func:`workbench.drycomponents.dry_components`;
+        ``"keys"``: the node key of each piece of rows (for :func:`.drycomponents.dry_components`;
         a bracket member's under ``("bracket", pair, how, member)``).
     """
     sites = list(sites)

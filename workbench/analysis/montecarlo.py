@@ -206,7 +206,8 @@ def annual_total_draws(result) -> xr.Dataset | None:
     Parameters
     ----------
     result : workbench.pipeline.Result
-        As returned by :func:`workbench.analysis.uncertainty.with_uncertainty` (its ``options["uncertainty"]``).
+        As returned by :func:`.uncertainty.with_uncertainty` (its
+        ``options["uncertainty"]``).
 
     Returns
     -------
