@@ -12,7 +12,8 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-import workbench.drycomponents  # noqa: E402,F401  (declares the pieces of the dry rows)
+import workbench.drycomponents  # noqa: E402,F401  (declares period_shares; imports
+#   workbench.dryrows, which declares the pieces of the dry rows)
 import workbench.drydep.core  # noqa: E402,F401  (declares the velocity steps)
 import workbench.stages  # noqa: E402,F401
 from workbench.budget import BudgetOptions  # noqa: E402

@@ -143,7 +143,7 @@ CONSTANT_MODULES = (
     "workbench/drydep/options.py", "workbench/drydep/particle_fractions.py",
     "workbench/drydep/codeposition.py",
     "workbench/analysis/trends.py", "workbench/analysis/exceedance.py",
-    "workbench/analysis/uncertainty.py", "workbench/analysis/sensitivity_options.py")
+    "workbench/analysis/uncertainty_options.py", "workbench/analysis/sensitivity_options.py")
 
 
 def _numeric(node) -> bool:

@@ -9,7 +9,7 @@ from dataclasses import asdict, dataclass, field
 
 from ..budget import PARTICLES
 from .layer import DRY_SPECIES
-from .uncertainty import DEFAULT_NH3_GAMMA_GSD, DEFAULT_VD_GSD
+from .uncertainty_options import DEFAULT_NH3_GAMMA_GSD, DEFAULT_VD_GSD
 
 #: The outputs: (element, quantity, key of :func:`totals_of`) [mol m-2; eq ha-1 for acidity].
 OUTPUTS = (("S", "wet", "S_wet"), ("S", "dry", "S_dry"), ("S", "total", "S_total"),

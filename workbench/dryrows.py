@@ -1,0 +1,228 @@
+"""The dry deposition over every air-sampling period of every species, independent of
+the reporting periods (:func:`dry_rows`), and the stages of the graph it runs
+(the prepared air, each species' air side and rows, the NH3 emission rows).
+
+The numpy cores are in :mod:`workbench.dryflux`; :mod:`workbench.drycomponents` shares
+the rows among reporting periods.  Units: Vd [m s-1], concentrations [mol m-3] or
+[mol mol-1], deposition [mol m-2].
+"""
+from __future__ import annotations
+
+import functools
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from . import graph as _graph
+from .budget import COMPONENTS, PAIRS, BudgetOptions
+from .budgetstatus import bracket_velocities
+from .dryflux import _inputs_for, deposition_rows
+from .drynss import _nss_particles
+from .drypairs import combined_notes, split_pairs
+from .dryvelocities import NH3_EXCHANGE, fill_arrays
+
+
+def _fingerprint(air: xr.Dataset, species: str) -> str:
+    """Digest of what the rows of a species read from the air dataset (its values,
+    censoring, detection limits, methods, sites and times), for content-keyed caches."""
+    names = (species, f"{species}_censored", f"{species}_detection_limit",
+             f"{species}_method", "site", "start", "end")
+    return _graph.variables_digest([(n, air.variables[n]) for n in names if n in air.variables],
+                                   str(air[species].attrs.get("quantity", "")))
+
+
+# ------------------------------------------------------------------ stages of the rows
+@_graph.stage("air_basis", reads={"budget": ("sulfate_basis", "air_censored")})
+def prepared_air(o, air):
+    """The air concentrations as the budget options read them (non-sea-salt sulfate).
+    The pairs are never moved here: ``pair_split`` builds the moved components from
+    each member's own rows (:func:`dry_rows`, :func:`workbench.drypairs.apply_split`)."""
+    return _nss_particles(air, o.budget.sulfate_basis, o.budget.air_censored)
+
+
+@_graph.stage("air_content")
+def air_content(o, air, species):
+    """Digest of what a species' rows read from an air Dataset (:func:`_fingerprint`)."""
+    return _fingerprint(air, species)
+
+
+@_graph.stage("flux_inputs", reads={"budget": ("air_censored", "min_slot_hours",
+                                                "diurnal_profile", "preferred_method")})
+def flux_inputs(o, air, axes, met, species, sites):
+    """The air side of a species' rows (samplers, censoring, weights; independent of
+    Vd but for its site and time axes)."""
+    rows, site_of, conc, cens, quantity, weight, n_air, notes = _inputs_for(
+        air, species, axes, met, o.budget.flux_options())
+    return (rows, pd.Index(list(sites)).get_indexer(site_of), conc[rows], quantity, weight,
+            n_air, notes, air["start"].values[rows], air["end"].values[rows],
+            np.asarray(cens)[rows])
+
+
+@_graph.stage("species_rows")
+def species_rows(o, inputs, fill, times):
+    """Deposition over every sampling period of one species (:func:`deposition_rows`)."""
+    si, conc, quantity, weight, n_air, notes, t0, t1, cens = inputs[1:]
+    r = deposition_rows(conc, quantity, si, t0, t1, times, fill["v_np"], n_air, weight)
+    r["site_index"] = si
+    r["conc"] = conc
+    r["quantity"] = quantity
+    r["censored"] = cens                 # below detection (value substituted)
+    r["air_row"] = inputs[0]             # row of each in the air Dataset (its identity)
+    return r, notes
+
+
+@_graph.stage("nh3_emission_rows")
+def nh3_emission_rows(o, deposition, inputs, emission, times):
+    """The emission part of the net NH3 flux over each NH3 sampling period."""
+    si, conc, t0, t1 = inputs[1], inputs[2], inputs[7], inputs[8]
+    e = deposition_rows(np.ones(len(conc)), "amount_density", si, t0, t1, times,
+                        emission["v_np"])
+    dep = deposition[0]
+    e["deposition"] = np.where(np.isfinite(dep["deposition"]), e["deposition"], np.nan)
+    e["site_index"] = si
+    return e
+
+
+@_graph.stage("vd_axes")
+def vd_axes(o, fill):
+    """Digest of a filled Vd's site and time axes (what :func:`flux_inputs` reads of it)."""
+    vd = fill["vd"]
+    return _graph.content_digest([np.asarray(vd["site"].values, object), vd["time"].values])
+
+
+def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=None):
+    """Deposition over every air-sampling period of every species (period-independent).
+
+    Parameters
+    ----------
+    air : xarray.Dataset or workbench.graph.Node
+    vel : dict
+        species -> the (vd, was, source) triples of :func:`.dryvelocities.prepare_velocities`, or
+        Nodes of :func:`workbench.dryvelocities.fill_arrays` results (the fill stage's).
+    met : xarray.Dataset or None
+    sites : list of str
+    options : BudgetOptions
+    graph : workbench.graph.Graph, optional
+        Where the pieces are cached (a new graph when None): the prepared air
+        (``air_basis``), each species' air side (``flux_inputs``, keyed by the content
+        of the air columns it reads) and rows (``species_rows``; a bracket member is a
+        species with the other member's Vd) and the NH3 emission rows; so a change of
+        one species' Vd recomputes that species and the brackets using its Vd only.
+        The pair split moves no concentration: its components are built from the
+        bracket's rows (a change of it computes at most the pNH4 rows with the NH3
+        exchange's Vd).
+    counts : dict, optional
+        As for :meth:`workbench.graph.Graph.run`.
+
+    Returns
+    -------
+    dict
+        ``"species"``: species -> numpy results of
+        :func:`workbench.dryflux.deposition_rows` plus ``site_index``; ``"vd_cum"``:
+        species -> cumulative counts of modelled and filled Vd hours; ``"bracket"``:
+        (pair, how) -> member -> the member's rows over its own sampling periods with
+        the Vd of :func:`.budgetstatus.bracket_velocities` (the pair need not share samples);
+        ``"split"``: pair -> (species moved into, other member, how) under
+        ``options.pair_split`` (:func:`workbench.drypairs.split_pairs`; empty for
+        "measured"), whose components :func:`.drycomponents.dry_components` builds from
+        the bracket's rows (:func:`workbench.drypairs.apply_split`), the moved-into species
+        ``measured`` where both members are;
+        ``"nh3_exchange"`` (when `vel` holds :data:`.dryvelocities.NH3_EXCHANGE`): the
+        deposition and emission parts of the net NH3 flux per NH3 sampling period (and, when
+        ``pair_split`` moves pNH4 into NH3, ``"moved"``: the pNH4 rows with the
+        exchange's Vd); ``"notes"``,
+        ``"measured"`` (site x species bool), ``"receptors"``, ``"times"``, ``"sites"``;
+        ``"keys"``: the node key of each piece of rows (for :func:`.drycomponents.dry_components`;
+        a bracket member's under ``("bracket", pair, how, member)``).
+    """
+    sites = list(sites)
+    if graph is None:            # a graph of this call: the inputs need no identity
+        graph = _graph.Graph()
+        air, met = _graph.input_node("air", "", air), _graph.input_node("met", "", met)
+        vel = {sp: _graph.input_node("vel", sp, fill_arrays(*v, sites)) for sp, v in vel.items()}
+    elif not all(isinstance(x, _graph.Node) for x in (air, met, *vel.values())):
+        raise TypeError("dry_rows with a graph needs Nodes for air, met and vel")
+    nodes = dict(vel)
+    species_list = [c[2] for c in COMPONENTS if c[1] == "dry"]
+    any_vd = next(iter(nodes.values())).value["vel"][0]
+    times = any_vd["time"].values
+    opts = {"budget": options}
+    run = functools.partial(graph.run, options=opts, counts=counts)
+    axes = {}
+
+    def axes_node(fill):       # the axes by their content (those of this call by fill)
+        if fill.key not in axes:
+            d = run("vd_axes", deps={"fill": fill}).value
+            axes[fill.key] = _graph.Node("vd_axes:" + d, fill.value["vd"])
+        return axes[fill.key]
+    times_node = _graph.Node(axes_node(next(iter(nodes.values()))).key + ":times", times)
+    met_node = met
+    prepared = run("air_basis", deps={"air": air})
+
+    def one(air_node, sp, vd_sp):
+        content = run("air_content", deps={"air": air_node}, params={"species": sp})
+        air_c = _graph.Node("air_content:" + content.value, air_node.value)
+        inputs = run("flux_inputs", deps={"air": air_c, "axes": axes_node(nodes[vd_sp]),
+                                          "met": met_node},
+                     params={"species": sp, "sites": tuple(sites)})
+        return inputs, run("species_rows", deps={"inputs": inputs, "fill": nodes[vd_sp],
+                                                 "times": times_node})
+
+    out = {"species": {}, "bracket": {}, "notes": [], "times": times,
+           "receptors": any_vd["receptor"].values, "sites": sites, "vd_cum": {},
+           "keys": {"times": times_node.key}}
+    air_v = prepared.value
+    for sp in species_list:
+        if sp not in air_v or sp not in nodes:
+            continue
+        _, node = one(prepared, sp, sp)
+        out["species"][sp], notes = node.value
+        out["keys"][sp] = node.key
+        out["vd_cum"][sp] = (nodes[sp].value["c_valid"], nodes[sp].value["c_fill"])
+        out["notes"].extend(notes)
+    # the brackets: each member over its own sampling periods with the Vd of the phase
+    # (deposition is linear in C: F(gas + particle at Vd) = F(gas at Vd) + F(particle
+    # at Vd)), from the air as read, so that the bracket does not depend on pair_split
+    for pair, (gas, part) in PAIRS.items():
+        if gas in air_v and part in air_v and gas in nodes and part in nodes:
+            out["notes"].extend(combined_notes(air.value, pair))
+            for how, vd_sp in bracket_velocities(PAIRS[pair]).items():
+                out["bracket"][(pair, how)] = {}
+                for member in (gas, part):
+                    _, node = one(air, member, vd_sp)
+                    out["bracket"][(pair, how)][member] = node.value[0]
+                    out["keys"][("bracket", pair, how, member)] = node.key
+    def has_value(sp):        # a value, or a value below detection (enters substituted)
+        cens = air_v[f"{sp}_censored"].values if f"{sp}_censored" in air_v else False
+        return np.isfinite(air_v[sp].values) | cens
+    if "pSO4" in out["species"] and "pSO4_total_used" in air_v:
+        out["pSO4_total_used"] = air_v["pSO4_total_used"].values[out["species"]["pSO4"]["air_row"]]
+    if "pSO4" in out["species"] and "pSO4_nss_censored" in air_v:
+        out["pSO4_nss_censored"] = air_v["pSO4_nss_censored"].values[
+            out["species"]["pSO4"]["air_row"]]
+    if "pSO4" in out["species"] and "pSO4_na_censored" in air_v:
+        out["pSO4_na_censored"] = air_v["pSO4_na_censored"].values[
+            out["species"]["pSO4"]["air_row"]]
+        out["pSO4_na_substitute"] = air_v["pSO4_na_censored"].attrs.get("substitute", "")
+    out["measured"] = np.stack(
+        [np.isin(sites, np.unique(air_v["site"].values[has_value(sp)]))
+         if sp in air_v else np.zeros(len(sites), bool) for sp in species_list], -1)
+    # pair_split: the main components of a pair from the bracket's rows (_apply_split)
+    out["split"] = split_pairs(options.pair_split, out, air_v, nodes)
+    for pair, (into, other, _) in out["split"].items():
+        k_in, k_out = species_list.index(into), species_list.index(other)
+        out["measured"][:, k_in] &= out["measured"][:, k_out]    # the weaker member's
+    if "NH3" in out["species"] and all(k in nodes for k in NH3_EXCHANGE):
+        inputs, dep = one(prepared, "NH3", "NH3_bidirectional")
+        em = run("nh3_emission_rows", deps={"deposition": dep, "inputs": inputs,
+                                            "emission": nodes["NH3_emission"],
+                                            "times": times_node})
+        out["nh3_exchange"] = {"deposition": dep.value[0], "emission": em.value}
+        out["keys"]["nh3|deposition"], out["keys"]["nh3|emission"] = dep.key, em.key
+        moved = out["split"].get("ammonium")
+        if moved is not None and moved[0] == "NH3":     # pNH4 moved into the NH3 exchange
+            _, node = one(air, moved[1], "NH3_bidirectional")
+            out["nh3_exchange"]["moved"] = node.value[0]
+            out["keys"]["nh3|moved"] = node.key
+    return out
