@@ -50,8 +50,8 @@ def test_the_network_totals_have_the_page_width(two_sites_2021):
 @pytest.mark.parametrize("n_sites, years", [(4, range(2016, 2024)), (3, range(2010, 2024)),
                                             (30, range(1995, 2025))])
 def test_network_years_fit_a_figure_of_the_page_width(n_sites, years):
-    """Given a width, the years named fit a panel of that width (written level); the
-    ticks for an 800 px output area (the figure without a width) named too many."""
+    """Given a width, the years are named for a panel of that width: up to 15 years
+    every one (slanted where they do not fit level), more every k-th, level."""
     table = _network(n_sites, years)
     fig = figures.network_totals(table, width=PAGE_FIGURE_WIDTH)
     assert fig.layout.width == PAGE_FIGURE_WIDTH
@@ -59,11 +59,12 @@ def test_network_years_fit_a_figure_of_the_page_width(n_sites, years):
     for x in ("xaxis", "xaxis2"):
         shown = list(fig.layout[x].tickvals)
         assert len(shown) >= 2 and shown[0] == str(min(years))
-        assert len(shown) * figures.YEAR_LABEL_PX <= room, x
+        level = len(shown) * figures.YEAR_LABEL_PX <= room
+        assert fig.layout[x].tickangle == (0 if level else figures.YEAR_ANGLE), x
+        assert level or len(years) <= figures.EVERY_YEAR_MAX, x
         assert list(fig.layout[x].categoryarray) == [str(y) for y in years]
     wide = figures.network_totals(table)                  # no width: as before
     assert wide.layout.width is None
-    assert len(wide.layout.xaxis.tickvals) * figures.YEAR_LABEL_PX > room
 
 
 #: Plot area of the site explorer's resistance figure [px], measured in chromium
