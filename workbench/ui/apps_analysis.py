@@ -386,7 +386,7 @@ def _range_text(row: dict, draws: int, lower=False, has=None, lower_n=None) -> s
 
 
 def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
-                           parts=None) -> "pd.DataFrame":
+                           parts=None, serial=False) -> "pd.DataFrame":
     """Trend and exceedance columns of the network overview, per site on its own surface.
 
     Parameters
@@ -402,6 +402,9 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
     parts : DataFrame, optional
         :func:`network_analysis_parts` of the same runs (computed when not given), so
         that a change of unit formats the same numbers again.
+    serial : bool
+        Add to each trend the p corrected for serially correlated years (Hamed and Rao
+        1998, :func:`serial_text`); `parts` must then hold ``{el}_p_hamed_rao``.
 
     Returns
     -------
@@ -417,7 +420,8 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
 
     from .summaries import to_unit
     if parts is None:
-        parts = network_analysis_parts(results, catalogue)
+        parts = network_analysis_parts(results, catalogue,
+                                       "hamed_rao" if serial else None)
     rows = []
     for _, p in parts.iterrows():
         row = {"site": p["site"], "receptor": p["receptor"]}
@@ -436,6 +440,7 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
             factor = float(to_unit(1.0, el, unit) / to_unit(1.0, el, "kg/ha/yr"))
             row[f"{el}_trend"] = (
                 f"{slope * factor:+.3g} {trend_unit(el, unit)} per yr (p {p[f'{el}_p']:.2g}"
+                + (serial_text(p.get(f"{el}_p_hamed_rao", np.nan), n) if serial else "")
                 + ("" if p[f"{el}_valid"] else
                    f"; indicative only: {years_text}, a valid trend needs {MIN_YEARS}")
                 + (f"; crosses a change of method: {p[f'{el}_method_changes']}"
@@ -449,6 +454,30 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
     return pd.DataFrame(rows, columns=["site", "receptor", "S_trend", "N_trend",
                                        "ex_acidity_eq_ha_yr", "ex_nutrient_n_eq_ha_yr",
                                        "exceedance_status", "exceedance_note"])
+
+
+#: Years below which the serial correction of the annual test sees only a strong
+#: lag-1 correlation (|rho_1| > 1.96/sqrt(n): 0.39 at 25 years), so that a corrected p
+#: equal to the plain one is no evidence of independent years (docs/methods_analysis.md,
+#: our reading, not a published rule).
+SERIAL_MIN_YEARS = 25
+
+
+def serial_text(p_corrected: float, n_years: int) -> str:
+    """The words a trend gains with the serial correction: the corrected p, and the
+    caution where the record is shorter than :data:`SERIAL_MIN_YEARS` years.
+
+    >>> serial_text(0.31, 8)
+    '; p 0.31 if the years are correlated (Hamed-Rao), weak: 8 years, needs ~25'
+    >>> serial_text(float("nan"), 30)
+    '; no correlated-years test (too few or tied values)'
+    """
+    if not np.isfinite(p_corrected):
+        return "; no correlated-years test (too few or tied values)"
+    out = f"; p {p_corrected:.2g} if the years are correlated (Hamed-Rao)"
+    if n_years < SERIAL_MIN_YEARS:
+        out += f", weak: {n_years} years, needs ~{SERIAL_MIN_YEARS}"
+    return out
 
 
 def trend_unit(element: str, unit: str) -> str:
@@ -473,8 +502,14 @@ def _lacking(table, receptor) -> str:
     return f" ({'; '.join(parts)})" if parts else ""
 
 
-def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
+def network_analysis_parts(results: dict, catalogue,
+                           serial_correction=None) -> "pd.DataFrame":
     """The numbers behind :func:`network_analysis_table`, in no unit of display.
+
+    `serial_correction`: ``"hamed_rao"`` adds ``{el}_p_hamed_rao`` (trends.csv's
+    ``p_value_hamed_rao``: the annual test's p with the variance correction of Hamed and
+    Rao 1998 for serially correlated years; NaN where no test) per element; None (the
+    default) leaves it out.
 
     Returns
     -------
@@ -499,7 +534,8 @@ def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
         years = res.table[(res.table["period"].astype(str) != "span")
                           & (res.table["receptor"] == own) & (res.table["pathway"] == "total")
                           & (res.table["species"] == "all")]
-        tr = trend_table(years, changes=change_notes([catalogue[site]]))
+        tr = trend_table(years, changes=change_notes([catalogue[site]]),
+                         serial_correction=serial_correction)
         tr = tr[tr["values"] == "all"] if len(tr) else tr
         for el in ("S", "N"):
             t = tr[tr["element"] == el] if len(tr) else tr
@@ -508,6 +544,8 @@ def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
             row[f"{el}_p"] = float(r.get("p_value", np.nan))
             row[f"{el}_valid"] = bool(r.get("valid", False))
             row[f"{el}_n_years"] = float(r.get("n_years", np.nan))
+            if serial_correction:
+                row[f"{el}_p_hamed_rao"] = float(r.get("p_value_hamed_rao", np.nan))
             changes = r.get("method_changes", "")
             row[f"{el}_method_changes"] = changes if isinstance(changes, str) else ""
         ex = exceedance_table(res, catalogue)
