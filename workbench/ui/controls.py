@@ -586,6 +586,43 @@ class SavedText:
         data["text/plain"] = self.saved_text()
         return data
 
+    def _ipython_display_(self):
+        """The app, then :func:`saved_hint` (a second output, hidden while the app is
+        drawn).
+
+        Defect: a notebook saved and opened again showed "Error displaying widget:
+        model not found" in place of the app (JupyterLab draws the widget's output
+        with the widget manager, never its plain text, and the app's widgets die with
+        the kernel).  The hint's own style hides that line and shows the app's
+        :meth:`saved_text` instead; while the app is drawn its class
+        (:data:`APP_CLASS`) hides the hint."""
+        from IPython.display import display
+        self.add_class(APP_CLASS)
+        display(self._repr_mimebundle_(), raw=True)
+        display(saved_hint(self.saved_text()), raw=True)
+
+
+#: Class of every app's box in the page (:meth:`SavedText._ipython_display_`).
+APP_CLASS = "wb-app"
+#: Class of the line a saved notebook shows in place of an app that is not running.
+HINT_CLASS = "wb-saved-hint"
+#: The hint's style (CSS :has(), chromium 105, Firefox 121, Safari 15.4): in an output
+#: area holding a drawn app, hide the hint; in one holding the hint and no drawn app,
+#: hide the widget manager's line in the app's place ("Error displaying widget: model
+#: not found").  (A :has() inside another :has() is no valid CSS: a first rule
+#: written so was dropped by chromium whole.)
+HINT_CSS = (f"<style>.jp-OutputArea:has(.{APP_CLASS}) .{HINT_CLASS} {{display: none;}} "
+            f".jp-OutputArea:has(.{HINT_CLASS}):not(:has(.{APP_CLASS})) "
+            ".jp-OutputArea-output.jupyter-widgets {display: none;}</style>")
+
+
+def saved_hint(text: str) -> dict:
+    """The output shown under an app: `text` (:meth:`SavedText.saved_text`) as HTML with
+    :data:`HINT_CSS`, seen only where the app is not drawn (a notebook opened again
+    after its kernel stopped)."""
+    return {"text/html": f"{HINT_CSS}<div class='{HINT_CLASS}' style='color:#555;"
+                         f"font-style:italic'>{html.escape(text)}</div>"}
+
 
 def open_with_progress(cls, scenario_path, **kw):
     """Open a scenario with a progress bar shown while the inputs are read, then `cls`
