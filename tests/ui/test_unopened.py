@@ -127,3 +127,11 @@ def test_an_app_shown_leaves_a_hint_for_the_notebook_opened_again(two_sites_2021
     # the style: hidden beside a drawn app; the manager's line hidden where none is
     assert f".jp-OutputArea:has(.{APP_CLASS}) .{HINT_CLASS} {{display: none;}}" in HINT_CSS
     assert ":has(" not in HINT_CSS.split(":has(", 1)[1].split(")")[0]   # no :has in :has
+    # the widgets' state saved with the notebook (an app drawn, but dead): the hint
+    # shown, a line over the app, ipywidgets' broken-link signs inside it hidden (seen in
+    # chromium with JupyterLab's "Save Widget State Automatically")
+    from workbench.ui.controls import DISCONNECTED
+    assert (f".jp-OutputArea:has(.{APP_CLASS}.{DISCONNECTED}) .{HINT_CLASS} {{display: block;}}"
+            in HINT_CSS)
+    assert f".{APP_CLASS}.{DISCONNECTED} .{DISCONNECTED}::before {{display: none;}}" in HINT_CSS
+    assert f".{APP_CLASS}.{DISCONNECTED}::before {{content: 'Not running" in HINT_CSS

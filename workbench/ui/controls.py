@@ -611,9 +611,23 @@ HINT_CLASS = "wb-saved-hint"
 #: hide the widget manager's line in the app's place ("Error displaying widget: model
 #: not found").  (A :has() inside another :has() is no valid CSS: a first rule
 #: written so was dropped by chromium whole.)
+#:
+#: Where JupyterLab saved the widgets' state with the notebook (Settings > Save Widget
+#: State Automatically), the app opened again is drawn from it, every widget of it
+#: marked with ipywidgets' red broken-link sign (30 in the network overview; a control
+#: moved said "no comm channel defined" in the console only).  There the app's figures
+#: and tables stay as saved, the signs inside the app go, and one line over the app and
+#: the hint under it say that it is not running (so too after its kernel stopped).
+DISCONNECTED = "jupyter-widgets-disconnected"     # ipywidgets' class of a dead view
 HINT_CSS = (f"<style>.jp-OutputArea:has(.{APP_CLASS}) .{HINT_CLASS} {{display: none;}} "
             f".jp-OutputArea:has(.{HINT_CLASS}):not(:has(.{APP_CLASS})) "
-            ".jp-OutputArea-output.jupyter-widgets {display: none;}</style>")
+            ".jp-OutputArea-output.jupyter-widgets {display: none;} "
+            f".jp-OutputArea:has(.{APP_CLASS}.{DISCONNECTED}) .{HINT_CLASS} "
+            "{display: block;} "
+            f".{APP_CLASS}.{DISCONNECTED} .{DISCONNECTED}::before {{display: none;}} "
+            f".{APP_CLASS}.{DISCONNECTED}::before {{content: 'Not running (a saved view, or "
+            "its kernel stopped): run the cells (Run > Run All Cells) to use it.'; font: italic 13px "
+            "sans-serif; color: #555; padding: 0 0 4px 0;}</style>")
 
 
 def saved_hint(text: str) -> dict:
