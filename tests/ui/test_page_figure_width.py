@@ -6,6 +6,7 @@ figure had no width, and plotly sometimes drew them at its 700 px fallback (they
 scrolled inside their box); in the site explorer's velocity and resistance panels the
 last hour label of one season ("18") stood about 15 px from the first of the next ("0").
 """
+import ipywidgets as widgets
 import numpy as np
 import pytest
 
@@ -120,3 +121,18 @@ def test_hour_labels_stand_apart_across_the_season_panels(runs, which):
     assert np.diff(_label_centres(lay, (0, 6, 12, 18))).min() < HOUR_LABEL_PX
     import plotly.graph_objects as go
     go.Figure(spec)                                              # plotly accepts it
+
+
+def test_the_critical_loads_figure_has_the_page_width(session):
+    """Defect (chromium, 1,000 px window, file browser open): the critical load function
+    drew at plotly's 700 px in a 568 px output area (its N axis cut), and the row of the
+    cut sliders and the choice of what is cut drew the choice's options over one
+    another; the figure now has the page width and the rows wrap."""
+    from workbench.ui.apps_analysis import CriticalLoadsExplorer
+    app = CriticalLoadsExplorer(session, site="ridge", years=(2021, 2021))
+    assert app.fig.layout.width == PAGE_FIGURE_WIDTH
+    app.cut_w["S"].value = 50                                   # redrawn: the width stays
+    assert app.fig.layout.width == PAGE_FIGURE_WIDTH
+    rows = [c for c in app.children if isinstance(c, widgets.HBox)
+            and (app.site_w in c.children or app.mode_w in c.children)]
+    assert len(rows) == 2 and all(r.layout.flex_flow == "row wrap" for r in rows)

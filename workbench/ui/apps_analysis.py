@@ -112,7 +112,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         self.effect_w.add_class("wb-no-effect")
         self.table_w = widgets.HTML("")
         # with the apps' template (a bare spec gave plotly's grey default)
-        self.fig = figure_widget(from_spec(clf_spec({})))
+        self.fig = figure_widget(from_spec(_sized(clf_spec({}))))
         self.unc_options = self._uncertainty_options(session)
         self.range_w = widgets.Checkbox(
             value=(session.scenario.options.get("uncertainty") or self.unc_options).draws > 0,
@@ -128,8 +128,13 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
                   *self.cut_w.values()):
             w.observe(self._on_control, "value")
         super().__init__([widgets.HTML("<h3>Critical loads and what-if cuts</h3>"), caution_box(),
-                          widgets.HBox([self.site_w, self.receptor_w, self.year_w]),
-                          widgets.HBox([widgets.VBox(list(self.cut_w.values())), self.mode_w]),
+                          # rows that wrap: beside an open file browser (a 568 px output
+                          # area) the year was cut and the choice of what is cut drew its
+                          # options over one another
+                          widgets.HBox([self.site_w, self.receptor_w, self.year_w],
+                                       layout=widgets.Layout(flex_flow="row wrap")),
+                          widgets.HBox([widgets.VBox(list(self.cut_w.values())), self.mode_w],
+                                       layout=widgets.Layout(flex_flow="row wrap")),
                           self.range_w, self.progress, self.effect_w, self.text_w, page(self.fig),
                           self.table_w])
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
@@ -254,7 +259,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         if not acid_loads and "cl_nut_n" not in loads:
             self.statement = f"{where}: no critical loads in sites.toml."
             self.path = None
-            refresh(self.fig, clf_spec(loads, title=where))
+            refresh(self.fig, _sized(clf_spec(loads, title=where)))
             self.text_w.value = f"<p>{html.escape(self.statement)}</p>"
             self.table_w.value = ""
             return self.statement
@@ -293,8 +298,9 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
             f"eq/ha/yr{' (partial: a lower bound)' if lower else ''}: "
             f"{html.escape(self.exceedance_words)}.</p>"
             f"<p><b>{html.escape(self.statement)}</b></p>")
-        refresh(self.fig, clf_spec(loads, first["s_dep_eq_ha_yr"], first["n_dep_eq_ha_yr"],
-                                   self.path, where, MODES[mode], ranges=row))
+        refresh(self.fig, _sized(clf_spec(loads, first["s_dep_eq_ha_yr"],
+                                          first["n_dep_eq_ha_yr"], self.path, where,
+                                          MODES[mode], ranges=row)))
         self.table_w.value = table_html(path_display(self.path))
         return self.statement
 
@@ -383,6 +389,15 @@ def _range_text(row: dict, draws: int, lower=False, has=None, lower_n=None) -> s
         else:
             out += f" probability of {what} exceedance not known;"
     return out.rstrip(";") + "."
+
+
+def _sized(spec: dict) -> dict:
+    """`spec` with the width of a figure in a page box
+    (:data:`~workbench.ui.figure_open.PAGE_FIGURE_WIDTH`).  Defect (chromium, 1,000 px
+    window, file browser open): without a width plotly drew the critical load function
+    at 700 px in a 568 px output area, its N axis cut at the right."""
+    from .figure_open import PAGE_FIGURE_WIDTH
+    return {**spec, "layout": {**spec.get("layout", {}), "width": PAGE_FIGURE_WIDTH}}
 
 
 def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
