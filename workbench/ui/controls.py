@@ -633,8 +633,9 @@ HINT_CSS = (f"<style>.jp-OutputArea:has(.{APP_CLASS}) .{HINT_CLASS} {{display: n
 def saved_hint(text: str) -> dict:
     """The output shown under an app: `text` (:meth:`SavedText.saved_text`) as HTML with
     :data:`HINT_CSS`, seen only where the app is not drawn (a notebook opened again
-    after its kernel stopped)."""
-    return {"text/html": f"{HINT_CSS}<div class='{HINT_CLASS}' style='color:#555;"
+    after its kernel stopped).  Its plain text is empty: a viewer of plain text shows
+    the app's own line (:meth:`SavedText.saved_text`) once."""
+    return {"text/plain": "", "text/html": f"{HINT_CSS}<div class='{HINT_CLASS}' style='color:#555;"
                          f"font-style:italic'>{html.escape(text)}</div>"}
 
 
