@@ -101,7 +101,7 @@ def test_an_app_shown_leaves_a_hint_for_the_notebook_opened_again(two_sites_2021
     from IPython.core.interactiveshell import InteractiveShell
 
     from workbench.ui.apps import NetworkOverview
-    from workbench.ui.controls import APP_CLASS, HINT_CLASS, HINT_CSS
+    from workbench.ui.saved_hint import APP_CLASS, HINT_CLASS, HINT_CSS
     from workbench.ui.session import Session
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", RuntimeWarning)
@@ -130,7 +130,7 @@ def test_an_app_shown_leaves_a_hint_for_the_notebook_opened_again(two_sites_2021
     # the widgets' state saved with the notebook (an app drawn, but dead): the hint
     # shown, a line over the app, ipywidgets' broken-link signs inside it hidden (seen in
     # chromium with JupyterLab's "Save Widget State Automatically")
-    from workbench.ui.controls import DISCONNECTED
+    from workbench.ui.saved_hint import DISCONNECTED
     assert (f".jp-OutputArea:has(.{APP_CLASS}.{DISCONNECTED}) .{HINT_CLASS} {{display: block;}}"
             in HINT_CSS)
     assert f".{APP_CLASS}.{DISCONNECTED} .{DISCONNECTED}::before {{display: none;}}" in HINT_CSS

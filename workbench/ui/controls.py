@@ -595,48 +595,13 @@ class SavedText:
         with the widget manager, never its plain text, and the app's widgets die with
         the kernel).  The hint's own style hides that line and shows the app's
         :meth:`saved_text` instead; while the app is drawn its class
-        (:data:`APP_CLASS`) hides the hint."""
+        (:data:`~workbench.ui.saved_hint.APP_CLASS`) hides the hint."""
         from IPython.display import display
+
+        from .saved_hint import APP_CLASS, saved_hint
         self.add_class(APP_CLASS)
         display(self._repr_mimebundle_(), raw=True)
         display(saved_hint(self.saved_text()), raw=True)
-
-
-#: Class of every app's box in the page (:meth:`SavedText._ipython_display_`).
-APP_CLASS = "wb-app"
-#: Class of the line a saved notebook shows in place of an app that is not running.
-HINT_CLASS = "wb-saved-hint"
-#: The hint's style (CSS :has(), chromium 105, Firefox 121, Safari 15.4): in an output
-#: area holding a drawn app, hide the hint; in one holding the hint and no drawn app,
-#: hide the widget manager's line in the app's place ("Error displaying widget: model
-#: not found").  (A :has() inside another :has() is no valid CSS: a first rule
-#: written so was dropped by chromium whole.)
-#:
-#: Where JupyterLab saved the widgets' state with the notebook (Settings > Save Widget
-#: State Automatically), the app opened again is drawn from it, every widget of it
-#: marked with ipywidgets' red broken-link sign (30 in the network overview; a control
-#: moved said "no comm channel defined" in the console only).  There the app's figures
-#: and tables stay as saved, the signs inside the app go, and one line over the app and
-#: the hint under it say that it is not running (so too after its kernel stopped).
-DISCONNECTED = "jupyter-widgets-disconnected"     # ipywidgets' class of a dead view
-HINT_CSS = (f"<style>.jp-OutputArea:has(.{APP_CLASS}) .{HINT_CLASS} {{display: none;}} "
-            f".jp-OutputArea:has(.{HINT_CLASS}):not(:has(.{APP_CLASS})) "
-            ".jp-OutputArea-output.jupyter-widgets {display: none;} "
-            f".jp-OutputArea:has(.{APP_CLASS}.{DISCONNECTED}) .{HINT_CLASS} "
-            "{display: block;} "
-            f".{APP_CLASS}.{DISCONNECTED} .{DISCONNECTED}::before {{display: none;}} "
-            f".{APP_CLASS}.{DISCONNECTED}::before {{content: 'Not running (a saved view, or "
-            "its kernel stopped): run the cells (Run > Run All Cells) to use it.'; font: italic 13px "
-            "sans-serif; color: #555; padding: 0 0 4px 0;}</style>")
-
-
-def saved_hint(text: str) -> dict:
-    """The output shown under an app: `text` (:meth:`SavedText.saved_text`) as HTML with
-    :data:`HINT_CSS`, seen only where the app is not drawn (a notebook opened again
-    after its kernel stopped).  Its plain text is empty: a viewer of plain text shows
-    the app's own line (:meth:`SavedText.saved_text`) once."""
-    return {"text/plain": "", "text/html": f"{HINT_CSS}<div class='{HINT_CLASS}' style='color:#555;"
-                         f"font-style:italic'>{html.escape(text)}</div>"}
 
 
 def open_with_progress(cls, scenario_path, **kw):
