@@ -104,6 +104,10 @@ def lab(tmp_path_factory, token):
             c.outputs, c.execution_count = [], None
     nb.metadata.pop("widgets", None)
     nbformat.write(nb, root / "network_overview_demo.ipynb")
+    # one site over five years: trends with a slope (tests/test_browser_saved.py)
+    years = write_demo_subset(tmp / "years", ("ridge",), 2017, 2021)
+    nb.cells.insert(1, nbformat.v4.new_code_cell(f'SCENARIO = r"{years}"\nYEARS = None'))
+    nbformat.write(nb, root / "network_overview_years.ipynb")
     # a user's typo in the first cell (defect: later cells gave NameError tracebacks)
     nb = nbformat.read(NOTEBOOKS / "critical_loads.ipynb", as_version=4)
     for c in nb.cells:

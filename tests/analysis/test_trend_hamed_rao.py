@@ -175,3 +175,16 @@ def test_monthly_rows_leave_the_columns_empty_and_an_exact_line_keeps_the_plain_
     b = hamed_rao_batch(line[None], np.arange(12.0),
                         mann_kendall_batch(line[None], np.arange(12.0), 0.05), 0.05)
     assert b["factor"][0] == 1.0 and b["p_value"][0] == plain.p_value
+
+
+def test_a_series_without_values_detrends_without_a_warning():
+    """Defect: the network overview's notebook showed "RuntimeWarning: All-NaN slice
+    encountered" (trends_batch, a series of the batch without any value)."""
+    import warnings
+
+    from workbench.analysis.trends_batch import _detrended
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        d = _detrended(np.array([[np.nan, np.nan], [1.0, 3.0]]), np.array([0.0, 2.0]),
+                       np.array([0.0, 1.0]))
+    assert np.isnan(d[0]).all() and np.allclose(d[1], [1.0, 1.0])

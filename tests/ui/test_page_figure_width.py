@@ -6,6 +6,7 @@ figure had no width, and plotly sometimes drew them at its 700 px fallback (they
 scrolled inside their box); in the site explorer's velocity and resistance panels the
 last hour label of one season ("18") stood about 15 px from the first of the next ("0").
 """
+import ipywidgets as widgets
 import numpy as np
 import pytest
 
@@ -50,8 +51,8 @@ def test_the_network_totals_have_the_page_width(two_sites_2021):
 @pytest.mark.parametrize("n_sites, years", [(4, range(2016, 2024)), (3, range(2010, 2024)),
                                             (30, range(1995, 2025))])
 def test_network_years_fit_a_figure_of_the_page_width(n_sites, years):
-    """Given a width, the years named fit a panel of that width (written level); the
-    ticks for an 800 px output area (the figure without a width) named too many."""
+    """Given a width, the years are named for a panel of that width: up to 15 years
+    every one (slanted where they do not fit level), more every k-th, level."""
     table = _network(n_sites, years)
     fig = figures.network_totals(table, width=PAGE_FIGURE_WIDTH)
     assert fig.layout.width == PAGE_FIGURE_WIDTH
@@ -59,11 +60,12 @@ def test_network_years_fit_a_figure_of_the_page_width(n_sites, years):
     for x in ("xaxis", "xaxis2"):
         shown = list(fig.layout[x].tickvals)
         assert len(shown) >= 2 and shown[0] == str(min(years))
-        assert len(shown) * figures.YEAR_LABEL_PX <= room, x
+        level = len(shown) * figures.YEAR_LABEL_PX <= room
+        assert fig.layout[x].tickangle == (0 if level else figures.YEAR_ANGLE), x
+        assert level or len(years) <= figures.EVERY_YEAR_MAX, x
         assert list(fig.layout[x].categoryarray) == [str(y) for y in years]
     wide = figures.network_totals(table)                  # no width: as before
     assert wide.layout.width is None
-    assert len(wide.layout.xaxis.tickvals) * figures.YEAR_LABEL_PX > room
 
 
 #: Plot area of the site explorer's resistance figure [px], measured in chromium
@@ -119,3 +121,18 @@ def test_hour_labels_stand_apart_across_the_season_panels(runs, which):
     assert np.diff(_label_centres(lay, (0, 6, 12, 18))).min() < HOUR_LABEL_PX
     import plotly.graph_objects as go
     go.Figure(spec)                                              # plotly accepts it
+
+
+def test_the_critical_loads_figure_has_the_page_width(session):
+    """Defect (chromium, 1,000 px window, file browser open): the critical load function
+    drew at plotly's 700 px in a 568 px output area (its N axis cut), and the row of the
+    cut sliders and the choice of what is cut drew the choice's options over one
+    another; the figure now has the page width and the rows wrap."""
+    from workbench.ui.apps_analysis import CriticalLoadsExplorer
+    app = CriticalLoadsExplorer(session, site="ridge", years=(2021, 2021))
+    assert app.fig.layout.width == PAGE_FIGURE_WIDTH
+    app.cut_w["S"].value = 50                                   # redrawn: the width stays
+    assert app.fig.layout.width == PAGE_FIGURE_WIDTH
+    rows = [c for c in app.children if isinstance(c, widgets.HBox)
+            and (app.site_w in c.children or app.mode_w in c.children)]
+    assert len(rows) == 2 and all(r.layout.flex_flow == "row wrap" for r in rows)

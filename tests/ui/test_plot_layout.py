@@ -102,15 +102,22 @@ def test_network_years_are_written_level_at_a_notebook_width(n_sites, years):
     nitrogen panels side by side beside a legend of "ridge (partial or flagged: not
     ranked)" entries got ~150 px each and plotly turned the years on end.  Each panel
     now spans the figure's width, the legend is narrower, and where the years still do
-    not fit every k-th year is named: the years shown fit side by side in a panel of
-    an 800 px output area (plotly then writes them level)."""
+    not fit they are slanted (up to 15 years, every one named) or every k-th year is
+    named, level."""
     fig = figures.network_totals(_network(n_sites, years))
     for x in ("xaxis", "xaxis2"):
         ax = fig.layout[x]
         assert tuple(ax.domain) == (0.0, 1.0), x         # each panel the figure's width
         shown = list(ax.tickvals)
-        assert shown == sorted(shown) and shown[0] == str(min(years))
-        assert len(shown) * figures.YEAR_LABEL_PX <= figures.totals_plot_px(fig), x
+        assert shown == sorted(shown) and int(shown[0]) - min(years) < 5
+        # every year up to EVERY_YEAR_MAX (slanted where they do not fit level), more
+        # years every k-th, level
+        level = len(shown) * figures.YEAR_LABEL_PX <= figures.totals_plot_px(fig)
+        assert ax.tickangle == (0 if level else figures.YEAR_ANGLE), x
+        if len(years) <= figures.EVERY_YEAR_MAX:
+            assert shown == [str(y) for y in years], x
+        else:
+            assert level and len(shown) <= figures.EVERY_YEAR_MAX, x
     assert figures.totals_plot_px(fig) >= 0.5 * figures.NOTEBOOK_PX
     # every year still drawn: the categories are all the years, in order
     assert list(fig.layout.xaxis2.categoryarray) == [str(y) for y in years]

@@ -89,3 +89,49 @@ def test_the_progress_bar_has_no_plain_text():
     data = Progress()._repr_mimebundle_()
     assert "application/vnd.jupyter.widget-view+json" in data
     assert data["text/plain"] == ""
+
+
+def test_an_app_shown_leaves_a_hint_for_the_notebook_opened_again(two_sites_2021):
+    """Defect (browser: open, run, save, close, open again): the app's place read "Error
+    displaying widget: model not found".  The app is shown with a second output, its
+    plain line as HTML with a style that hides it while the app is drawn (the app's
+    class) and hides the widget manager's line where the app is not."""
+    import warnings
+
+    from IPython.core.interactiveshell import InteractiveShell
+
+    from workbench.ui.apps import NetworkOverview
+    from workbench.ui.saved_hint import APP_CLASS, HINT_CLASS, HINT_CSS
+    from workbench.ui.session import Session
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        net = NetworkOverview(Session.open(two_sites_2021))
+    shell = InteractiveShell.instance()
+    shown = []
+    pub = shell.display_pub
+    old = pub.publish
+    pub.publish = lambda data, metadata=None, **kw: shown.append(data)
+    try:
+        from IPython.display import display
+        display(net)
+    finally:
+        pub.publish = old
+        InteractiveShell.clear_instance()
+    assert len(shown) == 2, shown
+    assert "application/vnd.jupyter.widget-view+json" in shown[0]
+    assert shown[0]["text/plain"] == net.saved_text()
+    assert APP_CLASS in net._dom_classes
+    hint = shown[1]["text/html"]
+    assert f"class='{HINT_CLASS}'" in hint and HINT_CSS in hint
+    assert "Run the notebook&#x27;s cells" in hint and "Network overview" in hint
+    # the style: hidden beside a drawn app; the manager's line hidden where none is
+    assert f".jp-OutputArea:has(.{APP_CLASS}) .{HINT_CLASS} {{display: none;}}" in HINT_CSS
+    assert ":has(" not in HINT_CSS.split(":has(", 1)[1].split(")")[0]   # no :has in :has
+    # the widgets' state saved with the notebook (an app drawn, but dead): the hint
+    # shown, a line over the app, ipywidgets' broken-link signs inside it hidden (seen in
+    # chromium with JupyterLab's "Save Widget State Automatically")
+    from workbench.ui.saved_hint import DISCONNECTED
+    assert (f".jp-OutputArea:has(.{APP_CLASS}.{DISCONNECTED}) .{HINT_CLASS} {{display: block;}}"
+            in HINT_CSS)
+    assert f".{APP_CLASS}.{DISCONNECTED} .{DISCONNECTED}::before {{display: none;}}" in HINT_CSS
+    assert f".{APP_CLASS}.{DISCONNECTED}::before {{content: 'Not running" in HINT_CSS

@@ -40,8 +40,11 @@ def _detrended(x, slope, t):
     """x - slope t rounded to :data:`TIE_RTOL` of the largest |value| (last axis), so
     that ties of exact arithmetic stay ties [unit of x]."""
     d = x - slope[..., None] * t if np.ndim(slope) else x - slope * t
-    with np.errstate(invalid="ignore"):
-        scale = np.nanmax(np.abs(d), axis=-1, keepdims=True) if d.size else d
+    # a row without any value (a series of the batch with no year): no scale, and no
+    # "All-NaN slice" warning (it reached the network overview's notebook output)
+    a = np.abs(d)
+    scale = np.max(np.where(np.isnan(a), -np.inf, a), axis=-1, keepdims=True) \
+        if d.size else d
     scale = np.where(np.isfinite(scale) & (scale > 0), scale, 1.0) * TIE_RTOL
     return np.round(d / scale) * scale
 

@@ -112,7 +112,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         self.effect_w.add_class("wb-no-effect")
         self.table_w = widgets.HTML("")
         # with the apps' template (a bare spec gave plotly's grey default)
-        self.fig = figure_widget(from_spec(clf_spec({})))
+        self.fig = figure_widget(from_spec(_sized(clf_spec({}))))
         self.unc_options = self._uncertainty_options(session)
         self.range_w = widgets.Checkbox(
             value=(session.scenario.options.get("uncertainty") or self.unc_options).draws > 0,
@@ -128,8 +128,13 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
                   *self.cut_w.values()):
             w.observe(self._on_control, "value")
         super().__init__([widgets.HTML("<h3>Critical loads and what-if cuts</h3>"), caution_box(),
-                          widgets.HBox([self.site_w, self.receptor_w, self.year_w]),
-                          widgets.HBox([widgets.VBox(list(self.cut_w.values())), self.mode_w]),
+                          # rows that wrap: beside an open file browser (a 568 px output
+                          # area) the year was cut and the choice of what is cut drew its
+                          # options over one another
+                          widgets.HBox([self.site_w, self.receptor_w, self.year_w],
+                                       layout=widgets.Layout(flex_flow="row wrap")),
+                          widgets.HBox([widgets.VBox(list(self.cut_w.values())), self.mode_w],
+                                       layout=widgets.Layout(flex_flow="row wrap")),
                           self.range_w, self.progress, self.effect_w, self.text_w, page(self.fig),
                           self.table_w])
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
@@ -254,7 +259,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         if not acid_loads and "cl_nut_n" not in loads:
             self.statement = f"{where}: no critical loads in sites.toml."
             self.path = None
-            refresh(self.fig, clf_spec(loads, title=where))
+            refresh(self.fig, _sized(clf_spec(loads, title=where)))
             self.text_w.value = f"<p>{html.escape(self.statement)}</p>"
             self.table_w.value = ""
             return self.statement
@@ -293,8 +298,9 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
             f"eq/ha/yr{' (partial: a lower bound)' if lower else ''}: "
             f"{html.escape(self.exceedance_words)}.</p>"
             f"<p><b>{html.escape(self.statement)}</b></p>")
-        refresh(self.fig, clf_spec(loads, first["s_dep_eq_ha_yr"], first["n_dep_eq_ha_yr"],
-                                   self.path, where, MODES[mode], ranges=row))
+        refresh(self.fig, _sized(clf_spec(loads, first["s_dep_eq_ha_yr"],
+                                          first["n_dep_eq_ha_yr"], self.path, where,
+                                          MODES[mode], ranges=row)))
         self.table_w.value = table_html(path_display(self.path))
         return self.statement
 
@@ -385,8 +391,17 @@ def _range_text(row: dict, draws: int, lower=False, has=None, lower_n=None) -> s
     return out.rstrip(";") + "."
 
 
+def _sized(spec: dict) -> dict:
+    """`spec` with the width of a figure in a page box
+    (:data:`~workbench.ui.figure_open.PAGE_FIGURE_WIDTH`).  Defect (chromium, 1,000 px
+    window, file browser open): without a width plotly drew the critical load function
+    at 700 px in a 568 px output area, its N axis cut at the right."""
+    from .figure_open import PAGE_FIGURE_WIDTH
+    return {**spec, "layout": {**spec.get("layout", {}), "width": PAGE_FIGURE_WIDTH}}
+
+
 def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
-                           parts=None) -> "pd.DataFrame":
+                           parts=None, serial=False) -> "pd.DataFrame":
     """Trend and exceedance columns of the network overview, per site on its own surface.
 
     Parameters
@@ -402,6 +417,9 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
     parts : DataFrame, optional
         :func:`network_analysis_parts` of the same runs (computed when not given), so
         that a change of unit formats the same numbers again.
+    serial : bool
+        Add to each trend the p corrected for serially correlated years (Hamed and Rao
+        1998, :func:`serial_text`); `parts` must then hold ``{el}_p_hamed_rao``.
 
     Returns
     -------
@@ -417,7 +435,8 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
 
     from .summaries import to_unit
     if parts is None:
-        parts = network_analysis_parts(results, catalogue)
+        parts = network_analysis_parts(results, catalogue,
+                                       "hamed_rao" if serial else None)
     rows = []
     for _, p in parts.iterrows():
         row = {"site": p["site"], "receptor": p["receptor"]}
@@ -436,6 +455,7 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
             factor = float(to_unit(1.0, el, unit) / to_unit(1.0, el, "kg/ha/yr"))
             row[f"{el}_trend"] = (
                 f"{slope * factor:+.3g} {trend_unit(el, unit)} per yr (p {p[f'{el}_p']:.2g}"
+                + (serial_text(p.get(f"{el}_p_hamed_rao", np.nan), n) if serial else "")
                 + ("" if p[f"{el}_valid"] else
                    f"; indicative only: {years_text}, a valid trend needs {MIN_YEARS}")
                 + (f"; crosses a change of method: {p[f'{el}_method_changes']}"
@@ -449,6 +469,30 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
     return pd.DataFrame(rows, columns=["site", "receptor", "S_trend", "N_trend",
                                        "ex_acidity_eq_ha_yr", "ex_nutrient_n_eq_ha_yr",
                                        "exceedance_status", "exceedance_note"])
+
+
+#: Years below which the serial correction of the annual test sees only a strong
+#: lag-1 correlation (|rho_1| > 1.96/sqrt(n): 0.39 at 25 years), so that a corrected p
+#: equal to the plain one is no evidence of independent years (docs/methods_analysis.md,
+#: our reading, not a published rule).
+SERIAL_MIN_YEARS = 25
+
+
+def serial_text(p_corrected: float, n_years: int) -> str:
+    """The words a trend gains with the serial correction: the corrected p, and the
+    caution where the record is shorter than :data:`SERIAL_MIN_YEARS` years.
+
+    >>> serial_text(0.31, 8)
+    '; p 0.31 if the years are correlated (Hamed-Rao), weak: 8 years, needs ~25'
+    >>> serial_text(float("nan"), 30)
+    '; no correlated-years test (too few or tied values)'
+    """
+    if not np.isfinite(p_corrected):
+        return "; no correlated-years test (too few or tied values)"
+    out = f"; p {p_corrected:.2g} if the years are correlated (Hamed-Rao)"
+    if n_years < SERIAL_MIN_YEARS:
+        out += f", weak: {n_years} years, needs ~{SERIAL_MIN_YEARS}"
+    return out
 
 
 def trend_unit(element: str, unit: str) -> str:
@@ -473,8 +517,14 @@ def _lacking(table, receptor) -> str:
     return f" ({'; '.join(parts)})" if parts else ""
 
 
-def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
+def network_analysis_parts(results: dict, catalogue,
+                           serial_correction=None) -> "pd.DataFrame":
     """The numbers behind :func:`network_analysis_table`, in no unit of display.
+
+    `serial_correction`: ``"hamed_rao"`` adds ``{el}_p_hamed_rao`` (trends.csv's
+    ``p_value_hamed_rao``: the annual test's p with the variance correction of Hamed and
+    Rao 1998 for serially correlated years; NaN where no test) per element; None (the
+    default) leaves it out.
 
     Returns
     -------
@@ -499,7 +549,8 @@ def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
         years = res.table[(res.table["period"].astype(str) != "span")
                           & (res.table["receptor"] == own) & (res.table["pathway"] == "total")
                           & (res.table["species"] == "all")]
-        tr = trend_table(years, changes=change_notes([catalogue[site]]))
+        tr = trend_table(years, changes=change_notes([catalogue[site]]),
+                         serial_correction=serial_correction)
         tr = tr[tr["values"] == "all"] if len(tr) else tr
         for el in ("S", "N"):
             t = tr[tr["element"] == el] if len(tr) else tr
@@ -508,6 +559,8 @@ def network_analysis_parts(results: dict, catalogue) -> "pd.DataFrame":
             row[f"{el}_p"] = float(r.get("p_value", np.nan))
             row[f"{el}_valid"] = bool(r.get("valid", False))
             row[f"{el}_n_years"] = float(r.get("n_years", np.nan))
+            if serial_correction:
+                row[f"{el}_p_hamed_rao"] = float(r.get("p_value_hamed_rao", np.nan))
             changes = r.get("method_changes", "")
             row[f"{el}_method_changes"] = changes if isinstance(changes, str) else ""
         ex = exceedance_table(res, catalogue)

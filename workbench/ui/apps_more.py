@@ -238,6 +238,15 @@ ANALYSIS_HEADINGS = {"S_trend": "S trend", "N_trend": "N trend",
                      "exceedance_note": "exceedance note"}
 
 
+#: The network's control of the serial correction of the trends' test.
+SERIAL_LABEL = "also the p for correlated years (Hamed-Rao; needs ~25 years)"
+#: The line over the trend table while the corrected p is shown.
+SERIAL_NOTE = ("Second p: the annual Mann-Kendall test with Var(S) corrected for "
+               "serially correlated years (Hamed and Rao 1998). With fewer than about 25 "
+               "years only a strong year-to-year correlation is seen, and a second p equal "
+               "to the first is then no evidence that the years are independent.")
+
+
 class NetworkOverview(SavedText, widgets.VBox):
     """All sites side by side: annual totals over the years and a ranking.
 
@@ -280,7 +289,13 @@ class NetworkOverview(SavedText, widgets.VBox):
         from .apps_analysis import network_analysis_parts
         # the trends' and exceedances' numbers once; each unit formats them again
         self._analysis_parts = network_analysis_parts(self.results,
-                                                      self.session.study.catalogue())
+                                                      self.session.study.catalogue(),
+                                                      "hamed_rao")
+        # the p of the annual test corrected for correlated years (Hamed and Rao 1998),
+        # beside the plain one on demand: read on records of ~25 years or more
+        self.serial_w = widgets.Checkbox(
+            value=False, indent=False, description=SERIAL_LABEL,
+            layout=widgets.Layout(width="auto"))
         # no width of its own: the column stretches it (a 100 % width plus the widget's
         # margins ran 4 px past the app); at most the column's width less those margins
         # (beside an open file browser the table made the box wider and cut its
@@ -288,6 +303,7 @@ class NetworkOverview(SavedText, widgets.VBox):
         self.analysis_w = widgets.HTML(layout=widgets.Layout(max_width="calc(100% - 4px)"))
         self._draw_analysis()
         self.unit_w.observe(lambda c: self._draw_analysis(), "value")
+        self.serial_w.observe(lambda c: self._draw_analysis(), "value")
         # the two rankings side by side where the window is wide enough, else one
         # under the other (a plot drawn in a notebook does not know its box's width)
         rankings = widgets.HBox([self.figs["S"], self.figs["N"]],
@@ -299,7 +315,7 @@ class NetworkOverview(SavedText, widgets.VBox):
                                        layout=widgets.Layout(flex_flow="row wrap")),
                           # PAGE_FIGURE_WIDTH wide; a narrower area scrolls it
                           page(self.figs["totals"]),
-                          rankings, self.apart_w, self.analysis_w],
+                          rankings, self.apart_w, self.serial_w, self.analysis_w],
                          layout=widgets.Layout(width="100%"))
         self.add_class("wb-network")
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
@@ -312,11 +328,13 @@ class NetworkOverview(SavedText, widgets.VBox):
         p values and years unchanged; exceedances in eq/ha/yr, the critical loads'."""
         from .apps_analysis import network_analysis_table
         unit = self.unit_w.value
+        serial = self.serial_w.value
         self.analysis = network_analysis_table(self.results, None, unit,
-                                               parts=self._analysis_parts)
+                                               parts=self._analysis_parts, serial=serial)
         self.analysis_w.value = (f"<b>Trends of the annual totals [{html.escape(unit)} per yr] "
                                  "and critical-load exceedance of the span [eq/ha/yr]</b>"
-                                 "<div style='overflow-x:auto;max-width:100%'>"
+                                 + (f"<br><i>{html.escape(SERIAL_NOTE)}</i>" if serial else "")
+                                 + "<div style='overflow-x:auto;max-width:100%'>"
                                  + table_html(self.analysis.rename(columns=ANALYSIS_HEADINGS))
                                  + "</div>")
 

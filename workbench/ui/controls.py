@@ -586,6 +586,23 @@ class SavedText:
         data["text/plain"] = self.saved_text()
         return data
 
+    def _ipython_display_(self):
+        """The app, then :func:`saved_hint` (a second output, hidden while the app is
+        drawn).
+
+        Defect: a notebook saved and opened again showed "Error displaying widget:
+        model not found" in place of the app (JupyterLab draws the widget's output
+        with the widget manager, never its plain text, and the app's widgets die with
+        the kernel).  The hint's own style hides that line and shows the app's
+        :meth:`saved_text` instead; while the app is drawn its class
+        (:data:`~workbench.ui.saved_hint.APP_CLASS`) hides the hint."""
+        from IPython.display import display
+
+        from .saved_hint import APP_CLASS, saved_hint
+        self.add_class(APP_CLASS)
+        display(self._repr_mimebundle_(), raw=True)
+        display(saved_hint(self.saved_text()), raw=True)
+
 
 def open_with_progress(cls, scenario_path, **kw):
     """Open a scenario with a progress bar shown while the inputs are read, then `cls`
