@@ -14,6 +14,7 @@ import xarray as xr
 
 from ..errors import InputError, suggest, type_hint, type_words
 from ..landuse import LAND_USE, class_hint
+from ..surface.solar import DEGREES_PER_HOUR     # mean solar offset = longitude / 15 [h]
 
 from .critical_loads import CRITICAL_LOAD_KEYS, check_critical_loads  # noqa: F401
 from .sitechanges import change_key_line, check_changes
@@ -606,9 +607,6 @@ def _geometry(t, err, notes, label):
         notes.append(f"{label}: latitude and longitude are both 0: a placeholder?")
 
 
-#: The offset of local mean solar time from UTC is the longitude over this [degree h-1]
-#: (360 degrees in 24 h).
-DEGREES_PER_HOUR = 15.0
 #: ``utc_offset_h`` further than this from longitude / 15 (modulo 24 h) gives a note [h].
 #: Civil standard times differ from local mean solar time by up to about 3 h in practice
 #: (common practice): the largest gap on inhabited land that we know of is about 3.1 h,
