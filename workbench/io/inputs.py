@@ -57,7 +57,7 @@ class Inputs:
         from .sites import SiteCatalogue
         keep = list(sites) if sites is not None else self.catalogue.ids
         cat = SiteCatalogue([self.catalogue[s] for s in keep], self.catalogue.path,
-                            self.catalogue.notes)
+                            self.catalogue.notes, self.catalogue.zone_notes)
         t0 = np.datetime64(start, "ns") if start is not None else None
         t1 = np.datetime64(end, "ns") if end is not None else None
 
@@ -217,6 +217,11 @@ def _load(sites, precipitation, air, met, reference_state, progress, flag_map) -
         inp.met, led = read_met(met, cat)
         inp.ledger = inp.ledger + led
         inp.paths["met"] = Path(met)
+        # one message per fault: where the clock check judged a site against the sun,
+        # its note (or its silence: the radiation keeps time with the sun at the
+        # catalogue's longitude and offset) supersedes the catalogue's zone note
+        gone = {cat.zone_notes[s] for s in led.clock_judged if s in cat.zone_notes}
+        inp.ledger.notes = [n for n in inp.ledger.notes if n not in gone]
     from .samplegaps import sampling_gap_notes      # weeks without samples, per sampler
     inp.ledger.notes.extend(sampling_gap_notes(inp.precipitation, "precipitation")
                             + sampling_gap_notes(inp.air, "air"))

@@ -121,12 +121,16 @@ class Ledger:
         File-level remarks (unknown columns ignored, metadata read, ...).
     parts : list
         The rows, per file, as DataFrames or :class:`CodedRows`, in order.
+    clock_judged : set of str
+        Site ids whose met radiation the clock check judged (:mod:`.metclock`): their
+        catalogue note on the time zone is superseded (one message per fault).
     """
 
-    def __init__(self, table=None, notes=None, parts=None):
+    def __init__(self, table=None, notes=None, parts=None, clock_judged=None):
         self.parts = list(parts) if parts is not None else (
             [table] if table is not None and len(table) else [])
         self.notes = list(notes) if notes is not None else []
+        self.clock_judged = set(clock_judged or ())
 
     def __repr__(self):
         return f"Ledger({self.rows()} rows in {len(self.parts)} parts, {len(self.notes)} notes)"
@@ -182,7 +186,8 @@ class Ledger:
         return cls(parts=[rows] if len(rows.lines) else [])
 
     def __add__(self, other: "Ledger") -> "Ledger":
-        return Ledger(parts=self.parts + other.parts, notes=self.notes + other.notes)
+        return Ledger(parts=self.parts + other.parts, notes=self.notes + other.notes,
+                      clock_judged=self.clock_judged | other.clock_judged)
 
     def add_reason(self, file, lines, reason: str):
         """Flag rows (by line number) of `file` with `reason`; rejected rows stay rejected."""

@@ -408,7 +408,7 @@ GROUP_RECORDS = 400_000
 
 
 def clock_notes(met, catalogue, file_name, group_records=None,
-                utc_labels=False) -> list[str]:
+                utc_labels=False, judged=None) -> list[str]:
     """The clock check of a met Dataset: :func:`site_lags`, then :func:`notes_from_lags`.
 
     Parameters
@@ -424,6 +424,9 @@ def clock_notes(met, catalogue, file_name, group_records=None,
         sites.
     utc_labels : bool
         As :func:`notes_from_lags`.
+    judged : set, optional
+        Given: the ids of the sites judged (a whole-record lag of :data:`MIN_SUNNY_DAYS`
+        sunny days or more) are added to it.
 
     Returns
     -------
@@ -442,6 +445,8 @@ def clock_notes(met, catalogue, file_name, group_records=None,
         rad = np.asarray(met["solar_radiation"].isel(site=slice(k, k + step)).values, float)
         parts.append(site_lags(rad, time_end, lat[k:k + step], lon[k:k + step]))
     table = pd.concat(parts, ignore_index=True)
+    if judged is not None:
+        judged.update(s for s, lag in zip(ids, table["lag"]) if np.isfinite(lag))
     return notes_from_lags(table, ids, catalogue, file_name, utc_labels,
                            coordinate_hints(met, table, ids, lat, lon))
 
@@ -504,7 +509,8 @@ def coordinate_hints(met, table, site_ids, latitude, longitude) -> dict:
 
 def add_clock_notes(met, ledger, catalogue, path, group_records=None) -> None:
     """Append :func:`clock_notes` of a met Dataset just read to its ledger's notes (each
-    met reader's last step: the CSV readers and the NetCDF/zarr path).
+    met reader's last step: the CSV readers and the NetCDF/zarr path), and the sites it
+    judged to the ledger's ``clock_judged``.
 
     Parameters
     ----------
@@ -520,5 +526,6 @@ def add_clock_notes(met, ledger, catalogue, path, group_records=None) -> None:
     from .zarrstore import is_zarr_path
     path = Path(path)
     utc = path.suffix in (".nc", ".nc4", ".netcdf") or is_zarr_path(path)
-    ledger.notes.extend(clock_notes(met, catalogue, path.name, group_records, utc))
+    ledger.notes.extend(clock_notes(met, catalogue, path.name, group_records, utc,
+                                    ledger.clock_judged))
 

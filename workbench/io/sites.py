@@ -14,6 +14,7 @@ import xarray as xr
 
 from ..errors import InputError, suggest, type_hint, type_words
 from ..landuse import LAND_USE, class_hint
+from ..surface.solar import DEGREES_PER_HOUR     # mean solar offset = longitude / 15 [h]
 
 from .critical_loads import CRITICAL_LOAD_KEYS, check_critical_loads  # noqa: F401
 from .sitechanges import change_key_line, check_changes
@@ -132,14 +133,18 @@ class SiteCatalogue:
         id -> :class:`Site`, in file order.
     path : Path or None
     notes : list of str
-        Hints on doubtful values (see :func:`check_site`).
+        Hints on doubtful values (see :func:`check_site`, :func:`zone_note`).
+    zone_notes : dict
+        site id -> its note of :func:`zone_note` (also in `notes`), which the met's clock
+        check supersedes where it judges the site (:func:`workbench.io.inputs.load_inputs`).
     """
 
-    def __init__(self, sites, path=None, notes=None):
+    def __init__(self, sites, path=None, notes=None, zone_notes=None):
         self.sites = {s.id: s for s in sites}
         self.path = Path(path) if path is not None else None
         #: Doubtful but usable values found when reading (plain-text hints).
         self.notes = list(notes or [])
+        self.zone_notes = dict(zone_notes or {})
 
     def __iter__(self):
         return iter(self.sites.values())
@@ -309,7 +314,7 @@ def read_sites(path) -> SiteCatalogue:
     tables = data.get("site")
     if not isinstance(tables, list) or not tables:
         raise InputError("no sites", file=path, expected="one or more [[site]] tables")
-    sites, seen, notes = [], {}, []
+    sites, seen, notes, zone_notes = [], {}, [], {}
     for k, t in enumerate(tables):
         def err(problem, key, value=None, expected=None, k=k):
             return InputError(problem, file=path, line=_key_line(lines, starts, k, key),
@@ -338,7 +343,11 @@ def read_sites(path) -> SiteCatalogue:
         sites.append(check_site(t, err, notes, f"{path.name}, site {sid!r}", table_err,
                                 change_err))
         seen[sid] = k
-    return SiteCatalogue(sites, path, notes)
+        zone = zone_note(sites[-1], f"{path.name}, site {sid!r}")
+        if zone:
+            notes.append(zone)
+            zone_notes[sid] = zone
+    return SiteCatalogue(sites, path, notes, zone_notes)
 
 
 def _type_check(t, err):
@@ -394,7 +403,8 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None,
     if not -90 <= t["latitude"] <= 90:
         raise err("latitude out of range", "latitude", t["latitude"], "-90 to 90 degrees")
     if not -180 <= t["longitude"] <= 360:
-        raise err("longitude out of range", "longitude", t["longitude"], "-180 to 180 degrees")
+        raise err("longitude out of range", "longitude", t["longitude"],
+                  "-180 to 180 degrees east (or 0 to 360)")
     if not ELEVATION_RANGE[0] <= t["elevation_m"] <= ELEVATION_RANGE[1]:
         raise err("elevation out of range", "elevation_m", t["elevation_m"],
                   f"{ELEVATION_RANGE[0]:g} to {ELEVATION_RANGE[1]:g} m above sea level "
@@ -595,6 +605,66 @@ def _geometry(t, err, notes, label):
                      f"{mast!r}: an in-canopy concentration?")
     if t["latitude"] == 0 and t["longitude"] == 0:
         notes.append(f"{label}: latitude and longitude are both 0: a placeholder?")
+
+
+#: ``utc_offset_h`` further than this from longitude / 15 (modulo 24 h) gives a note [h].
+#: Civil standard times differ from local mean solar time by up to about 3 h in practice
+#: (common practice): the largest gap on inhabited land that we know of is about 3.1 h,
+#: at the western end of China on UTC+8 (from memory); the far west of Spain on summer
+#: time is about 2.6 h.  A few zones lie further: Antarctic stations keeping their supply
+#: base's time (New Zealand time at the South Pole), and a logger set to a distant zone on
+#: purpose.  3.5 h keeps half an hour beyond the inhabited extremes (our choice); a
+#: deliberate offset stays usable, so this is a note, not an error.
+ZONE_NOTE_H = 3.5
+
+
+def _zone_gap(offset_h, longitude):
+    """``utc_offset_h`` minus the mean solar offset longitude / 15, wrapped to
+    [-12, 12) h (UTC+13 at 172 W is 0.5 h from its sun, not 24.5 h) [h]."""
+    return (offset_h - longitude / DEGREES_PER_HOUR + 12.0) % 24.0 - 12.0
+
+
+def zone_note(site: Site, label: str) -> str:
+    """A note when the site's ``utc_offset_h`` is far from the offset its longitude
+    implies (more than :data:`ZONE_NOTE_H` from longitude / 15, modulo 24 h) [text];
+    "" when it is not.
+
+    The catalogue's own check of the coordinates, for a site whose met has no radiation
+    (the clock check of :mod:`.metclock` measures the same against the sun and
+    supersedes it where it judges the site).  It names the longitude, the mean solar
+    offset it implies and the gap, and a slip that makes the offset plausible: latitude
+    and longitude typed in each other's place (when the longitude can be a latitude,
+    within +-90 degrees) or the longitude's sign lost.  A site on UTC
+    (``utc_offset_h = 0``) gets none: UTC labels are a common choice anywhere and say
+    nothing of the site's place.
+
+    Parameters
+    ----------
+    site : Site
+        Longitude [degree east], latitude [degree north], ``utc_offset_h`` [h].
+    label : str
+        Names the site in the note.
+    """
+    lat, lon, off = site.latitude, site.longitude, site.utc_offset_h
+    gap = _zone_gap(off, lon)
+    if abs(gap) <= ZONE_NOTE_H or off == 0:     # UTC labels: a choice, not a place
+        return ""
+    tries = []
+    if abs(lon) <= 90 and lat != lon:
+        tries.append(("latitude and longitude typed in each other's place", lon, lat))
+    if lon != 0 and abs(lon) <= 180:
+        tries.append(("the longitude's sign lost (east is positive, west negative)", lat, -lon))
+    fits = sorted((abs(_zone_gap(off, lo2)), what, la2, lo2) for what, la2, lo2 in tries)
+    why = "".join(f" {what[:1].upper()}{what[1:]}? (at latitude {la2:g}, longitude {lo2:g} "
+                  f"the offset is {g:.1f} h from the sun's)."
+                  for g, what, la2, lo2 in fits if g <= ZONE_NOTE_H)
+    solar = (lon / DEGREES_PER_HOUR + 12.0) % 24.0 - 12.0
+    size = f"{abs(gap):.1f}" if round(abs(gap), 1) > ZONE_NOTE_H else f"{abs(gap):.2f}"
+    return (f"{label}: utc_offset_h = {off:g} is {size} h from the offset of mean solar "
+            f"time at its longitude {lon:g} (longitude / 15: UTC{solar:+.1f} h; civil time "
+            f"zones keep within about 3 h of it, this note comes beyond {ZONE_NOTE_H:g} h): "
+            f"a logger kept on a distant zone's time on purpose, or utc_offset_h or the "
+            f"longitude typed wrong?{why} Kept as written")
 
 
 def _mast_history_geometry(t, changes, change_err, notes, label):
