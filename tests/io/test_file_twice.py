@@ -165,3 +165,103 @@ def test_sample_files_pasted_after_themselves_with_their_header(tmp_path, cat, r
     once = tmp_path / ("once_" + name)
     once.write_text(text)
     assert ds.sizes == reader(once, cat)[0].sizes
+
+
+# ---------------------------------------------------------------- metadata lines
+# A file pasted after itself with its ``# key: value`` lines (docs/data_formats.md):
+# before, the repeated metadata line was read as a data row and refused with "site not
+# in the catalogue".
+
+def test_met_pasted_after_itself_with_its_metadata_line(tmp_path, cat, met_reader):
+    lines, data = _lines()
+    assert lines[0] == "# time_label: end"
+    p = tmp_path / "met.csv"
+    p.write_text("\n".join(lines + lines) + "\n")
+    ds, ledger = met_reader(p, cat)
+    once = _once(tmp_path, cat, met_reader)
+    for name in once.data_vars:
+        np.testing.assert_array_equal(ds[name].values, once[name].values)
+    n, at = len(data), len(lines) + 1
+    assert (f"met.csv: the metadata repeated on line {at} (a file pasted after itself?): "
+            "not read as a row") in ledger.notes, ledger.notes
+    assert (f"met.csv: the header repeated on line {at + 1} (a file pasted after itself?): "
+            "not read as a row") in ledger.notes
+    assert len(_dropped(ledger)) == n and ledger.rows() == 2 * n and ledger.check_balanced()
+
+
+def test_met_metadata_line_repeated_with_blanks_and_a_free_comment(tmp_path, cat, met_reader):
+    # two comment lines at the top (one without a key) and a blank line, all repeated
+    lines, data = _lines()
+    top = ["# logger: invented", "# exported by hand", lines[0], ""]
+    body = lines[1:]
+    p = tmp_path / "met.csv"
+    p.write_text("\n".join(top + body + top + body) + "\n")
+    _, ledger = met_reader(p, cat)
+    at = len(top) + len(body) + 1
+    assert (f"met.csv: the metadata repeated on lines {at}-{at + 2} (a file pasted after "
+            "itself?): not read as a row") in ledger.notes, ledger.notes
+    assert len(_dropped(ledger)) == len(data)
+
+
+def test_met_second_half_with_another_time_label_is_refused(tmp_path, cat, met_reader):
+    # two files joined, the second labelling interval starts: one located message with
+    # both lines and both values, not "site not in the catalogue"
+    lines, _ = _lines()
+    second = ["# time_label: start"] + lines[1:]
+    p = tmp_path / "met.csv"
+    p.write_text("\n".join(lines + second) + "\n")
+    with pytest.raises(InputError) as exc:
+        met_reader(p, cat)
+    msg, at = str(exc.value), len(lines) + 1
+    assert exc.value.line == at and exc.value.column == "time_label", msg
+    assert exc.value.value == "start", msg
+    assert "two different declarations of 'time_label'" in msg, msg
+    assert "line 1 says 'end'" in msg and f"line {at} says 'start'" in msg, msg
+    assert "site not in the catalogue" not in msg
+
+
+def test_met_metadata_line_below_the_header_not_declared_at_the_top(tmp_path, cat, met_reader):
+    # the top file without the line (read as 'end'), the second with '# time_label: start'
+    lines, _ = _lines()
+    first = lines[1:]
+    p = tmp_path / "met.csv"
+    p.write_text("\n".join(first + lines[:1] + first) + "\n")
+    with pytest.raises(InputError) as exc:
+        met_reader(p, cat)
+    msg, at = str(exc.value), len(first) + 1
+    assert exc.value.line == at and exc.value.column == "time_label", msg
+    assert "site not in the catalogue" not in msg and "below the header" in msg, msg
+
+
+@pytest.mark.parametrize("reader, name, text", [(read_precipitation, "p.csv", PRECIP),
+                                                (read_air, "a.csv", AIR)],
+                         ids=["precipitation", "air"])
+def test_sample_files_pasted_after_themselves_with_their_metadata(tmp_path, cat, reader, name,
+                                                                   text):
+    top = "# station: invented\n" + text
+    lines = top.splitlines()
+    head = next(k for k, ln in enumerate(lines) if ln.startswith("site,"))
+    p = tmp_path / name
+    p.write_text("\n".join(lines + lines) + "\n")
+    ds, ledger = reader(p, cat)
+    at = len(lines) + 1
+    meta = "line" + (f"s {at}-{at + head - 1}" if head > 1 else f" {at}")
+    assert (f"{name}: the metadata repeated on {meta} (a file pasted after itself?): not "
+            "read as a row") in ledger.notes, ledger.notes
+    assert len(_dropped(ledger)) == len(lines) - head - 1
+    once = tmp_path / ("once_" + name)
+    once.write_text(top)
+    assert ds.sizes == reader(once, cat)[0].sizes
+
+
+def test_air_second_half_with_another_reference_state_is_refused(tmp_path, cat):
+    lines = AIR.splitlines()
+    assert lines[0] == "# reference_state: ambient"
+    second = ["# reference_state: 20 degC, 1013.25 hPa"] + lines[1:]
+    p = tmp_path / "a.csv"
+    p.write_text("\n".join(lines + second) + "\n")
+    with pytest.raises(InputError) as exc:
+        read_air(p, cat)
+    msg, at = str(exc.value), len(lines) + 1
+    assert exc.value.line == at and exc.value.column == "reference_state", msg
+    assert "line 1 says 'ambient'" in msg and f"line {at} says '20 degC, 1013.25 hPa'" in msg

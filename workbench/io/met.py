@@ -140,6 +140,8 @@ def read_met(path, catalogue):
         ledger.notes.append(unused_note(tab.path.name, unknown))
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
+    if tab.meta_again_note():
+        ledger.notes.append(tab.meta_again_note())
     if tab.header_again_note():
         ledger.notes.append(tab.header_again_note())
     if tab.end_of_day_note():

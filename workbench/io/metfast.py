@@ -44,10 +44,11 @@ ends at 3.2: the line reader's parser refuses the file) it locates itself as the
 reader does (:mod:`.metlocate`).  For the truly odd files (a quoted cell over several
 lines or a quote left open, a comma or quote in a cell of a column read, a lone CR or
 another line break of ``str.splitlines``, a line of blanks only, a line with fewer
-fields than the header, a ``-0``) it returns None and :func:`workbench.io.met.read_met`
-reads the file line by line, which gives the located error or handles the oddity (so
-the messages stay those of one reader); that reader still holds every cell of the file
-as text (:class:`~workbench.io.table.RawTable`: its checks run over whole columns).
+fields than the header, a ``-0``, a ``#`` line below the header) it returns None and
+:func:`workbench.io.met.read_met` reads the file line by line, which gives the located
+error or handles the oddity (so the messages stay those of one reader); that reader
+still holds every cell of the file as text (:class:`~workbench.io.table.RawTable`: its
+checks run over whole columns).
 The values, the ledger, the notes and the errors are the line-by-line reader's, on any
 number of threads (tests/io/test_metfast.py, tests/io/test_sheet_exports.py).
 """
@@ -292,6 +293,9 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
         return None                    # nothing raised: the line reader judges the file
 
 
+#: A line starting with ``#`` (blanks before it allowed) in a chunk of data lines.
+_HASH_LINE = re.compile(rb"^[ \t]*#", re.M)
+
 class _ChunkParser:
     """Parse one chunk of whole data lines (called on several threads at once): the
     chunk's blank lines (each as the number of its rows above it), its number of rows,
@@ -316,6 +320,8 @@ class _ChunkParser:
 
     def __call__(self, chunk):
         n_bytes = len(chunk)
+        if b"#" in chunk and _HASH_LINE.search(chunk):
+            return None      # a '#' line below the header: the line reader skips or locates it
         plain_text = normalise(chunk) if chunk.isascii() else None   # numpy: lock released
         if plain_text is None:                        # the line reader's parser, per chunk
             plain_text = parsed_cells(chunk, len(self.names), self.used_at)

@@ -391,6 +391,8 @@ def read_precipitation(path, catalogue, flag_map=None):
         ledger.notes.append(unused_note(tab.path.name, unknown))
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
+    if tab.meta_again_note():
+        ledger.notes.append(tab.meta_again_note())
     if tab.header_again_note():
         ledger.notes.append(tab.header_again_note())
     if tab.end_of_day_note():
@@ -614,6 +616,8 @@ def read_air(path, catalogue, reference_state=None):
         ledger.notes.append(unused_note(tab.path.name, unknown))
     if tab.missing_note():
         ledger.notes.append(tab.missing_note())
+    if tab.meta_again_note():
+        ledger.notes.append(tab.meta_again_note())
     if tab.header_again_note():
         ledger.notes.append(tab.header_again_note())
     if tab.end_of_day_note():

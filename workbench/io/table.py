@@ -58,6 +58,8 @@ _NO_VALUE_WORDS = ("null", "none", "nil", "missing", "no data", "nodata", "no va
 #: end in a line break); a pass over every cell of a large file costs a good part of
 #: reading it, one search of the text a fraction of that.
 _BLANK = re.compile(r"[^\S\n]")
+#: A ``#`` line (comment or ``# key: value`` metadata) below the header.
+_HASH_LINE = re.compile(r"^[^\S\n]*#.*$", re.M)
 #: Error values of a spreadsheet formula (a cell the sheet failed to compute): an error
 #: with the hint to fix the formula, not a missing value (``#N/A`` is missing, above).
 FORMULA_ERRORS = ("#div/0!", "#value!", "#ref!", "#num!", "#name?", "#null!", "#calc!",
@@ -333,6 +335,51 @@ def fields_error(path, line, n_head, cells=None, header=None, others=None) -> In
                       line=line, expected=f"{n_head} fields as in the header")
 
 
+def _top_lines_again(path, body, rest, n_meta, top, meta, meta_lines):
+    """(body, lines): `body` with each line below the header that repeats a ``#`` line
+    of the top as written made blank (dropped as a blank line; in `rest` too, in
+    place), and those 1-based file lines [int array].
+
+    `rest` holds the file's lines from the header on (the header is line ``n_meta + 1``),
+    `body` the same joined by newlines,
+    `top` each stripped ``#`` line of the top -> its line, `meta` and `meta_lines` the
+    ``key: value`` read there.  Any other ``#`` line below the header is refused, located:
+    a ``key: value`` of a key declared at the top with another value (two files joined,
+    e.g. one labelling interval starts) as two different declarations naming both lines
+    and both values, any other as a ``#`` line below the header (before, both were read
+    as a data row: "site not in the catalogue")."""
+    if "#" not in body:
+        return body, np.zeros(0, np.int64)
+    out, k, pos = [], 0, 0
+    for m in _HASH_LINE.finditer(body):        # the few '#' lines only, not every line
+        k += body.count("\n", pos, m.start())
+        pos = m.start()
+        if k == 0:
+            continue                            # the header itself (a '#' inside it)
+        s, line = m.group().strip(), n_meta + 1 + k
+        if s in top:
+            out.append(line)
+            rest[k] = ""
+            continue
+        text = s.lstrip("#").strip()
+        key, val = (x.strip() for x in text.split(":", 1)) if ":" in text else ("", text)
+        if key.lower() in meta:
+            was = meta_lines[key.lower()]
+            raise InputError(
+                f"two different declarations of {key.lower()!r} in one file (two files "
+                f"joined?): line {was} says {meta[key.lower()]!r}, line {line} says {val!r}",
+                file=path, line=line, column=key.lower(), value=val,
+                expected="one declaration for the whole file (split the file where the "
+                         "second one starts, or write its rows as the first part's)")
+        raise InputError(
+            "a '#' line below the header" + (" (a metadata line not declared at the top: "
+                                             "two files joined?)" if key else ""),
+            file=path, line=line, column=key.lower() or None, value=s[:60],
+            expected="'#' lines above the header only (a file pasted after itself may "
+                     "repeat them as written: they are skipped)")
+    return ("\n".join(rest) if out else body), np.asarray(out, np.int64)
+
+
 def _header_again(df: pd.DataFrame) -> np.ndarray:
     """Rows whose every cell is the header's own text (a column without a header, what
     pandas names ``Unnamed: k``, empty): the header repeated below itself [bool]."""
@@ -392,6 +439,9 @@ class RawTable:
     #: File lines below the header that repeat it cell for cell (a file pasted after
     #: itself, header and all): not read as rows (:meth:`header_again_note`).
     header_again: np.ndarray = field(default_factory=lambda: np.zeros(0, np.int64))
+    #: File lines below the header that repeat a ``#`` line of the top as written (a
+    #: file pasted after itself with its metadata): not read (:meth:`meta_again_note`).
+    meta_again: np.ndarray = field(default_factory=lambda: np.zeros(0, np.int64))
 
     # ------------------------------------------------------------------ reading
     @classmethod
@@ -399,11 +449,12 @@ class RawTable:
         path = Path(path)
         text = _open_text(path)
         all_lines = text.splitlines()
-        meta, n_meta, meta_lines = {}, 0, {}
+        meta, n_meta, meta_lines, top = {}, 0, {}, {}
         for ln in all_lines:
             s = ln.strip()
             if s.startswith("#"):
                 n_meta += 1
+                top.setdefault(s, n_meta)
                 body = s.lstrip("#").strip()
                 if ":" in body:
                     key, val = body.split(":", 1)
@@ -419,6 +470,7 @@ class RawTable:
         if not any(ln.strip() for ln in rest):
             raise InputError("empty file", file=path, expected="a header line and data rows")
         body = "\n".join(rest)
+        body, meta_again = _top_lines_again(path, body, rest, n_meta, top, meta, meta_lines)
         head = next(ln for ln in rest if ln.strip())
         if head.count(";") > head.count(",") or head.count("\t") > head.count(","):
             sep = "semicolon" if head.count(";") >= head.count("\t") else "tab"
@@ -483,6 +535,7 @@ class RawTable:
         tab.unit_switch_notes = switches
         tab.switched = {parse_header(a).name: v for a, v in origin.items()}
         tab.header_again = again
+        tab.meta_again = meta_again
         return tab
 
     # ------------------------------------------------------------------ helpers
@@ -702,6 +755,16 @@ class RawTable:
         from .ledger import compact_lines
         return (f"{self.path.name}: the header repeated on "
                 f"{compact_lines(self.header_again)} (a file pasted after itself?): not "
+                "read as a row")
+
+    def meta_again_note(self) -> str:
+        """The ledger note of lines repeating a ``#`` line of the top ("" for none), e.g.
+        ``m.csv: the metadata repeated on line 8762 (a file pasted after itself?): not
+        read as a row``."""
+        if not len(self.meta_again):
+            return ""
+        return (f"{self.path.name}: the metadata repeated on "
+                f"{compact_lines(self.meta_again)} (a file pasted after itself?): not "
                 "read as a row")
 
     def end_of_day_note(self) -> str:
