@@ -32,12 +32,18 @@ def _study(tmp, first_label):
 
 
 @pytest.fixture(scope="module")
-def first_hour_in_2021(tmp_path_factory):
+def first_hour_study(tmp_path_factory):
     # local standard time (UTC+1), labels at the hour's end: the record's first hour is
     # the hour ending 05:00 UTC, so 2021 lacks the four hours before it as well
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", RuntimeWarning)
-        return _study(tmp_path_factory.mktemp("first_hour"), "2021-01-01T06:00").run()
+        study = _study(tmp_path_factory.mktemp("first_hour"), "2021-01-01T06:00")
+        return study, study.run()
+
+
+@pytest.fixture(scope="module")
+def first_hour_in_2021(first_hour_study):
+    return first_hour_study[1]
 
 
 def test_first_hour_is_modelled_dry_and_marked(first_hour_in_2021):
@@ -59,3 +65,37 @@ def test_first_hour_counts_as_modelled_in_the_budget(first_hour_in_2021):
     not_modelled = np.round((1.0 - dry["vd_coverage"].to_numpy(float)) * HOURS_2021)
     assert (not_modelled == 4).all(), not_modelled
     assert (dry["flux_coverage"] == 1.0).all()       # the filled hour has a flux
+
+
+def test_velocities_nc_marks_the_first_hour(first_hour_study, tmp_path):
+    """velocities.nc writes ``wetness_source`` per (site, receptor) surface and hour as
+    a CF flag variable (CF 1.8 section 3.5: ``flag_values`` paired in order with the
+    blank-separated words of ``flag_meanings``), int8; the first hour of the record reads
+    "previous hour's rain unknown" (code 5) on every surface, the next hour not.  Before,
+    the file had no ``wetness_source``."""
+    import xarray as xr
+    from workbench.writers import write_velocities_nc
+    study, result = first_hour_study
+    path = write_velocities_nc(result, study, None, tmp_path / "velocities.nc")
+    with xr.open_dataset(path, mask_and_scale=False) as ds:
+        v = ds["wetness_source"]
+        assert v.dims == ("surface", "time") and v.dtype == np.int8
+        assert v.attrs["long_name"]
+        assert "units" not in v.attrs
+        meaning = dict(zip(np.asarray(v.attrs["flag_values"]).tolist(),
+                           v.attrs["flag_meanings"].split()))
+        assert len(meaning) == len(v.attrs["flag_meanings"].split()) == 7
+        assert meaning[5] == "inferred_dry_previous_hour_rain_unknown"
+        assert meaning[0] == "met_file_surface_wet" and meaning[1] == "inferred_rain"
+        assert meaning[2] == "inferred_dew" and meaning[-1] == "unknown"
+        codes = v.values
+        assert set(np.unique(codes)) <= set(meaning)
+        ridge = ds["surface_site"].values.astype(str) == "ridge"
+        assert ridge.sum() >= 3
+        assert (codes[ridge, 0] == 5).all()
+        assert (codes[ridge, 1] != 5).all()
+        assert (codes[:, 1:] != 5).all()      # the record has no gap
+        # the codes agree with the surface wetness written beside them
+        wet = ds["surface_wet"].values
+        assert (wet[codes == 5] == 0).all() and (wet[codes == 1] == 1).all()
+        assert (wet[codes == 3] == 0).all() and (wet[codes == 2] == 1).all()

@@ -214,10 +214,11 @@ WANTED_PAIRS_NOTE = ("only the (site, receptor) pairs a site asks for (active) a
                      "with receptors= gives every variable)")
 #: Hourly (site, receptor, time) variables of a whole run's velocities: what the budget
 #: reads (``vd_*``, the NH3 exchange) and what velocities.nc writes (Ra, Rb, Rc and Vd,
-#: u*, L, z0, wetness and the flags counted).  The Rc paths and the steps' diagnostics,
+#: u*, L, z0, wetness and its source, and the flags counted).  The Rc paths and the steps' diagnostics,
 #: half of the bytes, stay in the graph's group results.
 WHOLE_RUN_HOURLY = ("friction_velocity", "obukhov_length", "ra", "roughness_length",
-                    "displacement_height", "seasonal_category", "surface_wet", "ustar_floor_used", "ra_cap_used", "ra_height_raised",
+                    "displacement_height", "seasonal_category", "surface_wet", "wetness_source",
+                    "ustar_floor_used", "ra_cap_used", "ra_height_raised",
                     *NH3_EXCHANGE.values())
 
 

@@ -15,6 +15,7 @@ import xarray as xr
 
 from . import __version__
 from .csvwrite import write_csv
+from .drydep import wetness as _wetness
 from .io.common import release_free_memory
 from .io.ledger import STATUSES
 from .io.readbytes import file_sha256, gzip_content_sha256
@@ -170,6 +171,7 @@ def budget_dataset(result) -> xr.Dataset:
 #: stay in the Python result; writing them all made the demo file near 1 GB).
 VELOCITY_FILE_VARIABLES = ("friction_velocity", "obukhov_length", "ra", "roughness_length",
                            "displacement_height", "seasonal_category", "surface_wet",
+                           "wetness_source",
                            "ustar_floor_used", "ra_cap_used", "ra_height_raised",
                            "land_use_in_force")
 
@@ -195,9 +197,14 @@ def velocities_dataset(vd: xr.Dataset) -> xr.Dataset:
     out = {}
     for v in per_hour:
         a = ds[v].transpose("site", "receptor", "time", ...).values[si, ri]
-        if a.dtype.kind == "f":
+        attrs = dict(ds[v].attrs)
+        if v == "wetness_source":             # a CF flag variable of int8 codes
+            a, flags = _wetness.source_flags(a)
+            attrs = {k: x for k, x in attrs.items() if k not in ("codes", "units")}
+            attrs.update(flags)
+        elif a.dtype.kind == "f":
             a = a.astype("float32")
-        out[v] = (("surface", "time") + ds[v].dims[3:], a, dict(ds[v].attrs))
+        out[v] = (("surface", "time") + ds[v].dims[3:], a, attrs)
     res = xr.Dataset(out, coords={"time": vd["time"].values,
                                   "surface_site": ("surface", sites),
                                   "surface_receptor": ("surface", recs)})

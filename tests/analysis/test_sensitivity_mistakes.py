@@ -38,6 +38,11 @@ def _error(tmp_path, text):
     ("vd_SO2 = [-0.5, 1.5]", "0 <= low < high"),
     ("z0_gras = [0.01, 0.05]", "unknown land-use class in factor 'z0_gras'"),
     ("wetness_rule = [\"met\", \"wet\"]", "must list 2 or more"),
+    # a class without a canopy: the bidirectional model leaves it deposition-only, so
+    # an explicit range had no effect and was taken without a note (as `[]` is refused)
+    ("nh3_gamma_water = [0.5, 2]", "a multiplier of it has nothing to act on"),
+    ("nh3_gamma_snow_ice = [0.5, 2.0]", "a multiplier of it has nothing to act on"),
+    ("nh3_gamma_barren = []", "a multiplier of it has nothing to act on"),
 ])
 def test_a_bad_factor_is_placed_on_its_own_line(tmp_path, entry, problem):
     text = HEAD + "\n[sensitivity.factors]\ngauge_catch = [0.9, 1.1]\n" + entry + "\n"

@@ -88,15 +88,27 @@ def nh3_gamma_range(land_use: str) -> tuple:
     >>> nh3_gamma_range("crops")
     (0.333, 3.0)
     """
-    from ..drydep.nh3_bidirectional import EMISSION_POTENTIAL
-    g = float(EMISSION_POTENTIAL[land_use])
-    if not g > 0:
-        raise FactorError(f"SensitivityOptions.factors.nh3_gamma_{land_use} = []: the class "
-                          f"has no stomatal emission potential by default (Gamma_s {g:g}; "
-                          "no canopy: the bidirectional model leaves it deposition-only), "
-                          "so a multiplier of it has nothing to act on; leave the factor "
-                          "out", f"nh3_gamma_{land_use}")
+    check_gamma_acts(land_use, [])
     return (round(1.0 / DEFAULT_NH3_GAMMA_GSD, 3), float(DEFAULT_NH3_GAMMA_GSD))
+
+
+def check_gamma_acts(land_use: str, given) -> None:
+    """Refuse an ``nh3_gamma_<land use>`` factor of a class without a canopy
+    (:class:`FactorError`, on the factor's own line): the bidirectional model leaves
+    such a class deposition-only (:data:`workbench.drydep.nh3_bidirectional.VEGETATED`)
+    whatever its Gamma_s, so a multiplier of it has nothing to act on.  `given` is the
+    range as written (``[]`` or ``[low, high]``).  Before, an explicit range on such a
+    class was taken, without a note, and its indices read as a measured nil effect.
+    """
+    from ..drydep.nh3_bidirectional import EMISSION_POTENTIAL, VEGETATED
+    g = float(EMISSION_POTENTIAL[land_use])
+    if land_use not in VEGETATED or not g > 0:
+        shown = [v for v in given]
+        raise FactorError(f"SensitivityOptions.factors.nh3_gamma_{land_use} = {shown}: the "
+                          f"class has no stomatal emission potential by default (Gamma_s "
+                          f"{g:g}; no canopy: the bidirectional model leaves it "
+                          "deposition-only), so a multiplier of it has nothing to act on; "
+                          "leave the factor out", f"nh3_gamma_{land_use}")
 
 
 def _default_factors() -> dict:
@@ -183,6 +195,8 @@ class SensitivityOptions:
             if kind == "rc_scale" and not rng[0] > 0:
                 raise FactorError(f"SensitivityOptions.factors.{name}: a multiplier of Rc "
                                   "must be > 0", name)
+            if kind == "nh3_gamma":
+                check_gamma_acts(name[len("nh3_gamma_"):], rng)
             if kind == "nh3_gamma" and rng[1] > NH3_GAMMA_MAX_MULTIPLIER:
                 raise FactorError(f"SensitivityOptions.factors.{name} = {list(rng)}: a "
                                   "multiplier of the class's Gamma_s in force (the default, "

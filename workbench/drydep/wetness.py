@@ -55,6 +55,39 @@ RB_HEAT_PREFACTOR = 2.0
 SOURCE = {0: "met file (surface_wet)", 1: "inferred: rain", 2: "inferred: dew",
           3: "inferred: dry", 4: "set by the wetness_rule option",
           5: "inferred: dry, from this hour's rain alone (previous hour's rain unknown)"}
+#: The codes of ``wetness_source`` as CF ``flag_meanings`` words (CF 1.8 section 3.5:
+#: blank-separated, no blanks inside a word), -1 for an hour whose wetness is unknown
+#: (an input missing), as velocities.nc writes them (:func:`source_flags`).
+SOURCE_FLAGS = {-1: "unknown", 0: "met_file_surface_wet", 1: "inferred_rain",
+                2: "inferred_dew", 3: "inferred_dry", 4: "set_by_wetness_rule_option",
+                5: "inferred_dry_previous_hour_rain_unknown"}
+
+
+def source_flags(source):
+    """``wetness_source`` as a CF flag variable: int8 codes (-1 where unknown) and
+    their attributes.
+
+    Parameters
+    ----------
+    source : array_like
+        Codes of :data:`SOURCE`, NaN where the wetness is unknown. [1]
+
+    Returns
+    -------
+    codes : ndarray of int8
+    attrs : dict
+        ``long_name``, ``flag_values`` and ``flag_meanings`` (CF 1.8 section 3.5).
+
+    >>> codes, attrs = source_flags(np.array([5.0, np.nan, 1.0]))
+    >>> codes.tolist(), attrs["flag_meanings"].split()[codes[0] + 1]
+    ([5, -1, 1], 'inferred_dry_previous_hour_rain_unknown')
+    """
+    s = np.asarray(source, float)
+    codes = np.where(np.isnan(s), -1, s).astype(np.int8)
+    attrs = {"long_name": "source of the surface wetness used",
+             "flag_values": np.array(sorted(SOURCE_FLAGS), np.int8),
+             "flag_meanings": " ".join(SOURCE_FLAGS[k] for k in sorted(SOURCE_FLAGS))}
+    return codes, attrs
 
 
 def tri_or(a, b):
