@@ -193,7 +193,7 @@ def test_cluster_close_hides_the_nannys_kill_warning(monkeypatch):
             logging.getLogger("distributed.nanny").warning("Worker process still alive")
     fake = Fake()
     fake.cluster = Fake()
-    monkeypatch.setattr(blocks, "start_client", lambda w, s: fake)
+    monkeypatch.setattr(blocks, "start_client", lambda w, s, log=None: fake)
     before = logging.getLogger("distributed.nanny").level
     with grid_output._cluster(workers=2) as client:
         assert client is fake
