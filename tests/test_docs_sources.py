@@ -134,7 +134,8 @@ SOURCE_WORDS = re.compile(
 #: modules of technical constants only (block and chunk sizes, unit factors).
 CONSTANT_MODULES = (
     "workbench/constants.py", "workbench/landuse.py", "workbench/species.py",
-    "workbench/periods.py", "workbench/preflight.py", "workbench/budget.py",
+    "workbench/periods.py", "workbench/preflight.py", "workbench/budget_components.py",
+    "workbench/budget_options.py",
     "workbench/surface/aerodynamic.py", "workbench/surface/roughness.py",
     "workbench/wet/options.py", "workbench/wet/qa.py", "workbench/wet/carbonate.py",
     "workbench/wet/seasalt.py", "workbench/wet/screening.py", "workbench/wet/unitslip.py",

@@ -72,7 +72,7 @@ def bulk_parts(result, study, wet, catalogue, periods, sites, overrides=None):
     out = [dict() for _ in sites]
     if bud.bulk_correction != "scale_wet" or wet is None:
         return out, None
-    from ..budget import _collector_split_on, _wet_bulk_share
+    from ..budget_axes import _collector_split_on, _wet_bulk_share
     from ..surfacehistory import collector_shares
     labels = periods["label"].values
     n_p = len(labels)

@@ -12,8 +12,10 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..budget import COMPONENTS, OXIDIZED_N, REDUCED_N
-from ..units import element_deposition_in
+from ..budget_components import COMPONENTS
+# the sums of the budget's own totals and derived quantities (one definition)
+from ..budget_derived import nitrogen_forms, potential_acidity
+from ..budget_totals import sum_present
 from .bulk import HELD, PRECIP, apply_bulk
 from .drydraws import dry_ratio, nh3_net_draws, nss_dry_draws
 from .layer import DRY_SPECIES, LinearLayer
@@ -114,22 +116,20 @@ def totals_of(comp: np.ndarray) -> dict:
     -------
     dict
         ``S_wet`` ... ``N_total`` [mol m-2], ``oxidized_N``, ``reduced_N`` [mol m-2],
-        ``potential_acidity`` [eq ha-1], as in :func:`workbench.budget.derived`.
+        ``potential_acidity`` [eq ha-1], as in :func:`workbench.budget.derived`
+        (the same functions: :func:`workbench.budget_totals.sum_present`,
+        :func:`workbench.budget_derived.nitrogen_forms` and
+        :func:`workbench.budget_derived.potential_acidity`).
     """
     el = np.array([c[0] for c in COMPONENTS])
     path = np.array([c[1] for c in COMPONENTS])
     sp = np.array([c[2] for c in COMPONENTS])
-
-    def part(mask):
-        v = comp[..., mask]
-        return np.where(np.isfinite(v).any(-1), np.nansum(v, -1), np.nan)
     out = {}
     for e in ("S", "N"):
         for p in ("wet", "dry", "total"):
-            out[f"{e}_{p}"] = part((el == e) & ((path == p) if p != "total" else True))
-    out["oxidized_N"] = part(np.isin(sp, OXIDIZED_N) & (el == "N"))
-    out["reduced_N"] = part(np.isin(sp, REDUCED_N) & (el == "N"))
-    out["potential_acidity"] = (element_deposition_in(out["S_total"], "S", "eq_ha")
-                                + element_deposition_in(out["oxidized_N"], "N", "eq_ha")
-                                + element_deposition_in(out["reduced_N"], "N", "eq_ha"))
+            out[f"{e}_{p}"] = sum_present(comp[..., (el == e) & ((path == p) if p != "total"
+                                                               else True)])
+    out["oxidized_N"], out["reduced_N"] = nitrogen_forms(comp, el, sp)
+    out["potential_acidity"] = potential_acidity(out["S_total"], out["oxidized_N"],
+                                                 out["reduced_N"])
     return out

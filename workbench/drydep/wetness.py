@@ -51,17 +51,26 @@ DEW_RULES = ("scheme", "surface_temperature", "air_temperature")
 #: Prefactor of the quasi-laminar resistance for heat R_b,h = 2/(kappa u*) (Sc = Pr;
 #: Hicks et al. 1987, as for gases in :mod:`workbench.drydep.gas`) [-].
 RB_HEAT_PREFACTOR = 2.0
-#: Codes of ``wetness_source``.
-SOURCE = {0: "met file (surface_wet)", 1: "inferred: rain", 2: "inferred: dew",
-          3: "inferred: dry", 4: "set by the wetness_rule option",
-          5: "inferred: dry, from this hour's rain alone (previous hour's rain unknown)"}
-#: The codes of ``wetness_source`` as CF ``flag_meanings`` words (CF 1.8 section 3.5:
-#: blank-separated, no blanks inside a word), -1 for an hour whose wetness is unknown
-#: (an input missing), as velocities.nc writes them (:func:`source_flags`).
-SOURCE_FLAGS = {-1: "unknown", 0: "met_file_surface_wet", 1: "inferred_rain",
-                2: "inferred_dew", 3: "inferred_dry", 4: "set_by_wetness_rule_option",
-                5: "inferred_dry_previous_hour_rain_unknown"}
-
+#: Codes of ``wetness_source``, one row each: (code, CF ``flag_meanings`` word, words
+#: in a sentence).  The CF words follow CF 1.8 section 3.5 (blank-separated, no blanks
+#: inside a word); -1 is an hour whose wetness is unknown (an input missing), a code of
+#: the flags only (``Study.velocities`` keeps NaN there).
+SOURCE_TABLE = (
+    (-1, "unknown", None),
+    (0, "met_file_surface_wet", "met file (surface_wet)"),
+    (1, "inferred_rain", "inferred: rain"),
+    (2, "inferred_dew", "inferred: dew"),
+    (3, "inferred_dry", "inferred: dry"),
+    (4, "set_by_wetness_rule_option", "set by the wetness_rule option"),
+    (5, "inferred_dry_previous_hour_rain_unknown",
+     "inferred: dry, from this hour's rain alone (previous hour's rain unknown)"),
+)
+#: Codes of ``wetness_source`` in words (from :data:`SOURCE_TABLE`; no -1).
+SOURCE = {code: words for code, _, words in SOURCE_TABLE if words is not None}
+#: The codes of ``wetness_source`` as CF ``flag_meanings`` words, -1 for an hour whose
+#: wetness is unknown, as velocities.nc writes them (:func:`source_flags`; from
+#: :data:`SOURCE_TABLE`).
+SOURCE_FLAGS = {code: flag for code, flag, _ in SOURCE_TABLE}
 
 def source_flags(source):
     """``wetness_source`` as a CF flag variable: int8 codes (-1 where unknown) and

@@ -76,7 +76,9 @@ class Settings:
         return dataclasses.replace(self, **changes)
 
     def key(self) -> str:
-        """A text that differs whenever a run would differ (cache key)."""
+        """A text that differs whenever a run would differ, derived from every field by
+        the graph's own token (what a tab's figures were drawn for; it indexes no
+        cache: runs are cached by the session's graph)."""
         from ..graph import content_digest, token      # derived from every field
         return content_digest([], repr(token(self)))
 

@@ -1,0 +1,350 @@
+"""The assembly of a site budget: wet + dry components per site, receptor and period,
+their completeness, status and notes, and the per-element totals (:func:`assemble`);
+re-exported by :mod:`workbench.budget`.
+"""
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from .budget_axes import (_collector_split_on, _dry_on_receptors, _same_axis, _season_ok,
+                          _wet_bulk_share, annual_factor)
+from .budget_components import (BULK_CAUGHT_IN, COMPONENTS, FRACTIONS, OMISSIONS, PAIRS,
+                                PARTICLES)
+from .budget_options import BudgetError, BudgetOptions
+from .budget_totals import _totals
+from .budgetstatus import (NO_PNA_AT_SITE, as_flag, bracket_outputs, bulk_caught_brackets,
+                           dry_status, join_notes, nh3_net_component, sampling_gap_note,
+                           wet_component, wet_outputs, wet_sulfate_total)
+from .surfacehistory import collector_shares, period_notes
+
+
+def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods: pd.DataFrame,
+             options: BudgetOptions, receptors, season_cov=None, collector=None):
+    """Wet + dry components per site, receptor and period, with totals and status.
+
+    Parameters
+    ----------
+    wet : xarray.Dataset or None
+        Output of :func:`workbench.wet.wet_deposition` on the same periods.
+    dry : xarray.Dataset or None
+        Output of :func:`dry_components`.
+    catalogue : SiteCatalogue
+    periods : pandas.DataFrame
+    options : BudgetOptions
+    receptors : sequence of str
+        Receptor surfaces (coordinate of the result).
+    season_cov : ndarray, optional
+        (site, period, species) bool: every season covered (for years).
+    collector : dict, optional
+        :func:`workbench.surfacehistory.collector_split` of the samples on the same
+        periods, at sites whose collector changed: each sample's part of the wet
+        deposition is taken under its own collector's rules (without it: the share of
+        the period's hours under each collector by the change's date).
+
+    Returns
+    -------
+    xarray.Dataset
+        Dims (site, receptor, period, component); ``deposition`` [mol m-2 of element],
+        ``completeness`` [1], ``status`` (str), the wet and dry completeness fractions,
+        and per-element totals with their status; ``nh3_deposition_only`` and
+        ``nh3_net`` [mol m-2] (site, receptor, period) and the attribute ``nh3_figure``
+        (the NH3 figure of the component and the totals: ``net`` when `dry` holds
+        ``nh3_net``, else ``deposition_only``).
+    """
+    sites = catalogue.ids
+    n_s, n_r, n_p = len(sites), len(receptors), len(periods)
+    comps = list(COMPONENTS)
+    n_c = len(comps)
+    dep = np.full((n_s, n_r, n_p, n_c), np.nan)
+    status = np.full((n_s, n_r, n_p, n_c), "missing", dtype=object)
+    compl = np.full((n_s, n_r, n_p, n_c), np.nan)
+    #: the fractions behind `completeness`, per component (NaN where not applicable)
+    fractions = {name: np.full((n_s, n_r, n_p, n_c), np.nan) for name in FRACTIONS}
+    comp_note = np.full((n_s, n_r, n_p, n_c), "", dtype=object)
+    #: a present component fails completeness (flagged for coverage, not for a flag)
+    fails = np.zeros((n_s, n_r, n_p, n_c), bool)
+    active = np.array([[r in catalogue[s].surfaces for r in receptors] for s in sites])
+    # the collector in force over each period (docs/budget.md, "Bulk collectors": a
+    # declared collector change is followed): share of the period's hours under bulk
+    bulk_share, coll_words = collector_shares(catalogue, sites, periods)
+    # sample by sample where the samples are known (workbench/surfacehistory.py,
+    # collector_split): the hours sampled under bulk; `estimated` where a sample that
+    # holds a change's day was split between the collectors
+    split = _collector_split_on(collector, sites, n_p)
+    if split is not None:
+        bulk_share = np.where(np.isfinite(split["hour_share"]), split["hour_share"], bulk_share)
+        mixed = (bulk_share > 0) & (bulk_share < 1)
+        # a period whose samples hold both collectors names both (even if its dates do not)
+        dated = np.char.find(coll_words.astype(str), " until ") >= 0
+        coll_words = np.where(mixed & ~dated, split["both_words"], coll_words).astype(object)
+        estimated = split["estimated"] & mixed
+    else:
+        estimated = (bulk_share > 0) & (bulk_share < 1)
+    bulk_p = bulk_share >= 1.0                       # (site, period) wholly bulk
+    straddle = (bulk_share > 0) & ~bulk_p            # a collector change inside
+    bulk = bulk_share.max(axis=1) > 0                # (site,) bulk in some period
+    notes = []
+    labels = periods["label"].values
+    hours_p = periods["hours"].to_numpy(dtype=float)        # [h]
+    if wet is not None:
+        w = wet if _same_axis(wet, "site", sites) and _same_axis(wet, "period", labels) else \
+            wet.reindex(site=sites, period=labels)
+        w_status = w.variables["status"].values.astype(object)
+        w_status = np.where(pd.isna(w_status), "missing", w_status)
+        w_fail = (as_flag(w.variables["completeness_failed"].values)
+                  if "completeness_failed" in w.variables else w_status == "flagged")
+        w_frac = np.fmin(np.fmin(w.variables["gauge_fraction"].values, w.variables["coverage_fraction"].values),
+                         w.variables["valid_precip_fraction"].values)
+    if dry is not None:
+        dr = dry if _same_axis(dry, "receptor", receptors) else _dry_on_receptors(dry, receptors)
+        d_species = list(dr.variables["species"].values)
+        d_dep, d_cov = dr.variables["deposition"].values, dr.variables["coverage"].values
+        d_vdc, d_fs, d_meas = dr.variables["vd_coverage"].values, dr.variables["vd_filled_share"].values, dr.variables["measured"].values
+        d_fc = (dr.variables["flux_coverage"].values if "flux_coverage" in dr.variables
+                else np.where(np.isfinite(d_dep), d_cov[:, None], 0.0))
+        d_ratio = (dr.variables["mixing_ratio"].values if "mixing_ratio" in dr.variables
+                   else np.zeros(len(d_species), bool))
+        d_sok = _season_ok(dry, season_cov, periods, options)
+    for j, (el, path, sp) in enumerate(comps):
+        if path == "wet":
+            if wet is None:
+                comp_note[..., j] = "no precipitation chemistry input"
+                continue
+            st, note, d, fl, ion_share = wet_component(w, sp, options, w_status, w_fail,
+                                                       with_share=True)
+            if d is None:
+                comp_note[..., j] = f"no {sp} column in the precipitation chemistry"
+                continue
+            if "coverage_fraction" in w.variables:        # a gap within the thresholds
+                note = sampling_gap_note(note, st, w.variables["coverage_fraction"].values,
+                                         hours_p[None, :], "precipitation")
+            if options.bulk_correction == "scale_wet":
+                f = options.bulk_factor(sp)
+                d = np.where(bulk_p, d * f, d)
+                note = np.where(bulk_p, join_notes(note, f"bulk deposition x {f:g} "
+                                                         "(bulk_correction scale_wet)"), note)
+                # a period holding both collectors: the factor on the bulk samples' part of
+                # its deposition (their share of the hours without the samples)
+                dep_share, how = (_wet_bulk_share(split, w, sp, options) if split is not None
+                                  else (bulk_share, "bulk share of the period's hours"))
+                d = np.where(straddle, d * (1.0 - dep_share * (1.0 - f)), d)
+                note = np.where(straddle, join_notes(note, np.char.add(
+                    coll_words.astype(str), f": bulk deposition x {f:g} on the {how} "
+                    "(bulk_correction scale_wet)")), note)
+                st = np.where(estimated & (st == "complete"), "flagged", st)
+            if (coll_words != "").any():
+                # (a period holding both collectors under scale_wet says it above)
+                said = straddle if options.bulk_correction == "scale_wet" else False
+                note = np.where((coll_words != "") & ~said, join_notes(note, coll_words), note)
+            dep[:, :, :, j] = d[:, None, :]
+            status[:, :, :, j] = st[:, None, :]
+            fails[:, :, :, j] = fl[:, None, :]
+            comp_note[:, :, :, j] = note[:, None, :]
+            # the smallest of the period's fractions and the share of its rain with a
+            # value of this ion (and tracer), the criterion the row is judged by
+            compl[:, :, :, j] = np.fmin(w_frac, ion_share)[:, None, :]
+            for name, var in (("wet_gauge_fraction", "gauge_fraction"),
+                              ("wet_coverage_fraction", "coverage_fraction"),
+                              ("wet_valid_precip_fraction", "valid_precip_fraction"),
+                              ("wet_flagged_precip_fraction", "flagged_precip_fraction")):
+                if var in w.variables:
+                    fractions[name][:, :, :, j] = w.variables[var].values[:, None, :]
+        else:
+            if dry is None or sp not in d_species:
+                comp_note[..., j] = f"no air concentrations of {sp}"
+                continue
+            k = d_species.index(sp)
+            if sp in PARTICLES and bulk.any():
+                if options.bulk_correction == "none" and bool(d_meas[bulk, k].any()):
+                    bad = [s for s, b in zip(sites, bulk) if b]
+                    raise BudgetError(
+                        f"site {bad[0]!r} has a bulk collector: its 'wet' deposition already "
+                        f"holds some dry deposition, so particle dry deposition ({sp}) is not "
+                        "added; name a correction in [budget] bulk_correction "
+                        "('exclude_particles' or 'scale_wet', see docs/budget.md)")
+            d = d_dep[..., k]
+            cov = d_cov[:, None, :, k] * np.ones((1, n_r, 1))
+            vdc = d_vdc[..., k]
+            fs = d_fs[..., k]
+            meas = d_meas[:, None, None, k] * np.ones((1, n_r, n_p), bool)
+            sok = d_sok[:, :, k][:, None, :]
+            fc = d_fc[..., k]
+            st, fl, why = dry_status(cov, vdc, fs, fc, meas, sok, bool(d_ratio[k]), options)
+            why = sampling_gap_note(why, st, cov, hours_p[None, None, :], "air")
+            fails[..., j] = fl
+            comp_note[..., j] = why
+            c = np.fmin(np.fmin(cov, fc), vdc)
+            if sp in PARTICLES and options.bulk_correction == "exclude_particles":
+                # taken as caught: the bulk "wet" ion holds it, so it adds 0 here and
+                # shares that wet component's status (docs/budget.md, bulk collectors)
+                excl = bulk_p[:, None, :] & np.ones((1, n_r, n_p), bool)
+                ion = BULK_CAUGHT_IN[sp]
+                jw = [x[2] for x in comps].index(ion)
+                # a period holding both collectors: the particle dry deposition of its
+                # wet-only share of hours is added, the bulk share is taken as caught
+                part = straddle[:, None, :] & np.ones((1, n_r, n_p), bool)
+                d = np.where(part, d * (1.0 - bulk_share[:, None, :]), d)
+                st = np.where(estimated[:, None, :] & part & (st == "complete"), "flagged", st)
+                hours = ("hours sampled by the bulk collector" if split is not None
+                         else "bulk share of the period's hours")
+                comp_note[..., j] = np.where(part, join_notes(comp_note[..., j], np.char.add(
+                    (coll_words[:, None, :] * np.ones((1, n_r, 1), object)).astype(str),
+                    f": the {hours} taken as caught (in its wet {ion}),"
+                    " the rest added")), comp_note[..., j])
+                d = np.where(excl, np.where(status[..., jw] == "missing", np.nan, 0.0), d)
+                st = np.where(excl, status[..., jw], st)
+                c = np.where(excl, compl[..., jw], c)
+                fails[..., j] = np.where(excl, False, fails[..., j])
+                comp_note[..., j] = np.where(excl, f"caught by the bulk collector: counted in "
+                                             f"its wet {ion} deposition, 0 here (bulk_correction "
+                                             "exclude_particles)", comp_note[..., j])
+                if excl.any():
+                    notes.append(f"{sp}: particle dry deposition at bulk-collector sites taken "
+                                 f"as caught by the collector (in its wet {ion}; 0 in the dry "
+                                 "pathway)")
+            dep[:, :, :, j] = d
+            status[:, :, :, j] = st
+            compl[:, :, :, j] = c
+            fractions["air_coverage"][:, :, :, j] = cov
+            fractions["flux_coverage"][:, :, :, j] = fc
+            fractions["vd_coverage"][:, :, :, j] = vdc
+    # non-sea-salt pSO4 below 0 over a period (more sea-salt sulfate from pNa than pSO4
+    # itself): clipped at 0 and flagged, as the wet chain's nss SO4 (docs/budget.md,
+    # "Components and units"); the samples stay linear, the period's sum is clipped
+    if options.sulfate_basis == "nss" and dry is not None and "pSO4" in d_species:
+        j = [c[2] for c in comps].index("pSO4")
+        neg = (status[..., j] != "missing") & np.isfinite(dep[..., j]) & (dep[..., j] < 0)
+        if neg.any():
+            dep[..., j] = np.where(neg, 0.0, dep[..., j])
+            status[..., j] = np.where(neg & np.isin(status[..., j], ("complete", "filled")),
+                                      "flagged", status[..., j])
+            comp_note[..., j] = np.where(neg, join_notes(
+                comp_note[..., j], "sea-salt sulfate from pNa exceeds the measured pSO4: "
+                "non-sea-salt pSO4 clipped at 0"), comp_note[..., j])
+        # weeks of pSO4 without pNa among weeks with it: their total pSO4 stands in
+        # (sea salt included), flagged with the weeks named (the period still passes);
+        # a site with no pNa at all: said, not flagged, one basis over its whole record
+        # (docs/budget.md, "Components and units")
+        if "pSO4_total_used" in dr.variables:
+            words = np.asarray(dr.variables["pSO4_total_used"].values, object)
+            said = np.array([isinstance(x, str) and x != "" for x in words.ravel()],
+                            bool).reshape(words.shape)[:, None, :] & np.ones((1, n_r, 1), bool)
+            said &= (status[..., j] != "missing") & ~np.char.startswith(
+                comp_note[..., j].astype(str), "caught by the bulk collector")
+            whole = np.array([isinstance(x, str) and x.startswith(NO_PNA_AT_SITE)
+                              for x in words.ravel()], bool).reshape(words.shape)[:, None, :]
+            status[..., j] = np.where(said & ~whole
+                                      & np.isin(status[..., j], ("complete", "filled")),
+                                      "flagged", status[..., j])
+            comp_note[..., j] = np.where(said, join_notes(
+                comp_note[..., j], (words[:, None, :] * np.ones((1, n_r, 1), object)).astype(str)),
+                comp_note[..., j])
+        # weeks whose pNa was below detection: their sea salt from the substitute, said
+        # (not flagged: a value below detection is a measurement, as for every species)
+        for var in ("pSO4_nss_censored", "pSO4_na_censored"):
+            if var not in dr.variables:
+                continue
+            words = np.asarray(dr.variables[var].values, object)
+            said = np.array([isinstance(x, str) and x != "" for x in words.ravel()],
+                            bool).reshape(words.shape)[:, None, :] & np.ones((1, n_r, 1), bool)
+            said &= (status[..., j] != "missing") & ~np.char.startswith(
+                comp_note[..., j].astype(str), "caught by the bulk collector")
+            comp_note[..., j] = np.where(said, join_notes(
+                comp_note[..., j], (words[:, None, :] * np.ones((1, n_r, 1), object)).astype(str)),
+                comp_note[..., j])
+    # a site's own surface under a land-use class other than its land_use in the period
+    # (workbench/surfacehistory.py): its dry rows say which
+    lu = period_notes(catalogue, sites, list(receptors), periods)
+    if (lu != "").any():
+        for j, (_, path, _) in enumerate(comps):
+            if path == "dry":
+                said = (lu != "") & (status[..., j] != "missing")
+                comp_note[..., j] = np.where(said, join_notes(comp_note[..., j], lu),
+                                             comp_note[..., j])
+    # NH3: the net exchange replaces the deposition-only figure when the dry model gave it
+    j = [c[2] for c in comps].index("NH3")
+    nh3_only = np.where(status[..., j] == "missing", np.nan, dep[..., j])
+    nh3_net = np.full(nh3_only.shape, np.nan)
+    figure = "deposition_only"
+    if dry is not None and "nh3_net" in dr.variables and "NH3" in d_species:
+        nh3_net = dr.variables["nh3_net"].values
+        dep[..., j], status[..., j], comp_note[..., j] = nh3_net_component(
+            nh3_only, nh3_net, status[..., j], comp_note[..., j])
+        nh3_net = np.where(status[..., j] == "missing", np.nan, nh3_net)
+        figure = "net"
+        notes.append("NH3: the component and the N totals use the net exchange of the "
+                     "compensation point model (deposition - emission); the deposition-only "
+                     "figure is nh3_deposition_only")
+    dep = np.where(status == "missing", np.nan, dep)
+    compl = np.where(status == "missing", np.nan, compl)
+    dims = ("site", "receptor", "period", "component")
+    elements = np.array([c[0] for c in comps])
+    pathways = np.array([c[1] for c in comps])
+    species = np.array([c[2] for c in comps])
+    data = {"deposition": xr.Variable(dims, dep, {"units": "mol m-2",
+                                                  "long_name": "deposition as amount of element"}),
+            "completeness": xr.Variable(dims, compl, {"units": "1", "long_name":
+                                                      "smallest of the component's fractions"}),
+            **{name: xr.Variable(dims, np.where(status == "missing", np.nan, v),
+                                 {"units": "1", "long_name": FRACTIONS[name]})
+               for name, v in fractions.items()},
+            "note": xr.Variable(dims, comp_note),
+            "fails_completeness": xr.Variable(dims, fails & (status != "missing"), {
+                "long_name": "the component fails a completeness criterion"}),
+            "status": xr.Variable(dims, status),
+            "active": xr.Variable(("site", "receptor"), active),
+            "nh3_deposition_only": xr.Variable(dims[:3], nh3_only, {
+                "units": "mol m-2", "long_name": "dry NH3 deposition, deposition only (the "
+                "gas scheme's Vd, no compensation point)"}),
+            "nh3_net": xr.Variable(dims[:3], nh3_net, {
+                "units": "mol m-2", "long_name": "net dry NH3 exchange, deposition - emission "
+                "(positive down; NaN unless nh3_treatment = bidirectional)"})}
+    names, totals = _totals(dep, status, compl, elements, pathways, species, fails)
+    data.update(totals)
+    if (lu != "").any() or (coll_words != "").any():
+        # the sums of a period under another surface or collector say so too
+        t_note = np.full(dep.shape[:3] + (len(names),), "", dtype=object)
+        for t, name in enumerate(names):
+            path = name.split("_")[1]
+            if path in ("wet", "total"):
+                t_note[..., t] = join_notes(t_note[..., t], coll_words[:, None, :]
+                                            * np.ones((1, n_r, 1), object))
+            if path in ("dry", "total"):
+                t_note[..., t] = join_notes(t_note[..., t], lu)
+        data["total_note"] = xr.Variable(dims[:3] + ("total",), t_note.astype(object))
+    coords = {"site": sites, "receptor": list(receptors), "period": labels,
+              "component": [f"{e}/{p}/{s}" for e, p, s in comps],
+              "element": ("component", elements), "pathway": ("component", pathways),
+              "species": ("component", species),
+              "period_start": ("period", periods["start"].values),
+              "period_end": ("period", periods["end"].values),
+              "period_hours": ("period", periods["hours"].to_numpy(dtype=float)),
+              "annual_factor": ("period", annual_factor(periods)), "total": names}
+    if dry is not None:
+        sp_index = [c[2] for c in comps].index
+        data.update(bulk_caught_brackets(
+            bracket_outputs(dr, PAIRS, d_species, d_vdc, d_fs, d_meas, d_sok, d_ratio, options),
+            PAIRS, bulk_p, lambda p: (dep[..., sp_index(p)], status[..., sp_index(p)],
+                                    compl[..., sp_index(p)]), options))
+        conc = dr.variables["concentration"]
+        data["air_concentration"] = xr.Variable(
+            tuple("air_species" if d == "species" else d for d in conc.dims), conc.values,
+            conc.attrs)
+        coords["air_species"] = dr.variables["species"].values
+    if wet is not None:
+        wet_vars, wet_ions = wet_outputs(w)
+        data.update(wet_vars)
+        data["wet_sulfate_total"] = xr.Variable(("site", "period"), wet_sulfate_total(
+            w, options), {"long_name": "the wet S component (SO4) holds total SO4, sea salt "
+                          "included: sulfate_basis total, or the non-sea-salt mean fell back "
+                          "for want of the sea-salt tracer"})
+        coords["wet_ion"] = wet_ions
+    ds = xr.Dataset(data, coords=coords)               # built once (each assign aligns)
+    ds.attrs.update({"options": json.dumps(options.to_dict(), sort_keys=True),
+                     "notes": json.dumps(notes), "nh3_figure": figure,
+                     "omissions": json.dumps([list(o) for o in OMISSIONS])})
+    return ds

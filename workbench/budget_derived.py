@@ -1,0 +1,136 @@
+"""Quantities derived from the budget's components: oxidized and reduced N, the
+potential acidity, dry and wet shares, the bracket of dry N, the air's total nitrate
+and ammonia + ammonium (:func:`derived`) and the status of the derived sums of
+summary.csv (:func:`derived_status`); re-exported by :mod:`workbench.budget`.
+"""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import xarray as xr
+
+from .budget_components import DERIVED_PARTS, OXIDIZED_N, PAIRS, REDUCED_N
+from .budget_totals import combine_status, sum_present
+from .species import element_molar_mass
+from .units import UG_PER_KG, deposition_in, element_deposition_in
+
+
+def nitrogen_forms(dep, element, species):
+    """Oxidized and reduced N of components (..., component) [mol m-2 of N].
+
+    Parameters
+    ----------
+    dep : ndarray
+        (..., component) deposition [mol m-2 of element].
+    element, species : ndarray of str
+        Per component.
+
+    Returns
+    -------
+    oxidized, reduced : ndarray
+        Sums of :data:`OXIDIZED_N` and :data:`REDUCED_N` (:func:`sum_present`) [mol m-2].
+    """
+    return (sum_present(dep[..., np.isin(species, OXIDIZED_N) & (element == "N")]),
+            sum_present(dep[..., np.isin(species, REDUCED_N) & (element == "N")]))
+
+
+def potential_acidity(s_total, oxidized, reduced):
+    """Potential acidity 2 S + oxidized N + reduced N [eq ha-1] from the S total and
+    the oxidized and reduced N [mol m-2 of element] (common practice)."""
+    return (element_deposition_in(s_total, "S", "eq_ha")
+            + element_deposition_in(oxidized, "N", "eq_ha")
+            + element_deposition_in(reduced, "N", "eq_ha"))
+
+
+def derived_status(table: pd.DataFrame) -> pd.DataFrame:
+    """Status and missing components of the derived sums (oxidized N, reduced N,
+    potential acidity) per (site, receptor, period), by the rule of every sum
+    (:func:`workbench.budget.combine_status`): without them an oxidized N that lacks an
+    unmeasured NO2 read as complete in summary.csv.
+
+    Returns
+    -------
+    DataFrame
+        Columns site, receptor, period, ``<sum>_status`` and ``<sum>_missing_components``.
+    """
+    comp = table[(table["species"] != "all") & (table["period"] != "span")]
+    key = ["site", "receptor", "period"]
+    st = comp.pivot_table(index=key, columns="species", values="status", aggfunc="first",
+                          observed=True)
+    out = pd.DataFrame(index=st.index)
+    for name, parts in DERIVED_PARTS.items():
+        sub = st.reindex(columns=list(parts)).fillna("missing").to_numpy(object)
+        out[f"{name}_status"], _ = combine_status(sub)
+        out[f"{name}_missing_components"] = [
+            " ".join(p for p, v in zip(parts, row) if v == "missing") for row in sub]
+    return out.reset_index()
+
+
+def derived(ds: xr.Dataset) -> xr.Dataset:
+    """Dry and wet shares, oxidized and reduced N, potential acidity [eq ha-1].
+
+    Potential acidity = 2 nss-S + oxidized N + reduced N in eq ha-1 (common practice);
+    the S term uses the budget's sulfate basis.
+    """
+    sp = ds["species"].values
+    el = ds["element"].values
+    d = ds["deposition"].values
+    totals = list(ds["total"].values)
+    tot = ds["total_deposition"].values
+
+    def part(mask):
+        return sum_present(d[..., mask])
+
+    def t(name):
+        return tot[..., totals.index(name)]
+
+    ox, red = nitrogen_forms(d, el, sp)
+    dims = ("site", "receptor", "period")
+    kg, eq = "kg N ha-1", "eq ha-1"
+    out = {"oxidized_N_kg_ha": (dims, element_deposition_in(ox, "N", "kg_ha"),
+                                {"units": kg, "long_name": "oxidized N deposition (NO3, HNO3, pNO3, NO2)"}),
+           "oxidized_N_eq_ha": (dims, element_deposition_in(ox, "N", "eq_ha"), {"units": eq}),
+           "reduced_N_kg_ha": (dims, element_deposition_in(red, "N", "kg_ha"),
+                               {"units": kg, "long_name": "reduced N deposition (NH4, NH3, pNH4)"}),
+           "reduced_N_eq_ha": (dims, element_deposition_in(red, "N", "eq_ha"), {"units": eq}),
+           "potential_acidity_eq_ha": (dims, potential_acidity(t("S_total"), ox, red),
+                                       {"units": eq,
+                                        "long_name": "potential acidity 2 S + oxidized N + reduced N"})}
+    if "wet_H_deposition" in ds:
+        h = ds["wet_H_deposition"].transpose("site", "period").values
+        out["wet_H_eq_ha"] = (dims, np.broadcast_to(
+            deposition_in(h, "H", "eq_ha")[:, None, :], d.shape[:3]).copy(),
+            {"units": eq, "long_name": "wet deposition of free acidity H+"})
+    with np.errstate(invalid="ignore", divide="ignore"):
+        for e in ("S", "N"):
+            out[f"{e}_dry_share"] = (dims, t(f"{e}_dry") / t(f"{e}_total"), {"units": "1"})
+            out[f"{e}_wet_share"] = (dims, t(f"{e}_wet") / t(f"{e}_total"), {"units": "1"})
+        # the bracket of dry N: each gas/particle pair all as gas, and all as particle;
+        # its status by the rule of every sum, with each bracket for its pair
+        dry_n = t("N_dry")
+        n_dry = (el == "N") & (ds["pathway"].values == "dry")
+        others = ds["status"].values[..., n_dry & ~np.isin(sp, sum(PAIRS.values(), ()))]
+        for how in ("all_gas", "all_particle"):
+            alt, st = dry_n.copy(), [others]
+            for pair, members in PAIRS.items():
+                v = f"bracket_{pair}_{how}"
+                measured = part(np.isin(sp, members) & (ds["pathway"].values == "dry"))
+                alt = alt - measured + (ds[v].values if v in ds else np.nan)
+                st.append(ds[f"{v}_status"].values[..., None] if f"{v}_status" in ds
+                          else np.full(alt.shape + (1,), "missing", object))
+            out[f"dry_N_{how}_kg_ha"] = (dims, element_deposition_in(alt, "N", "kg_ha"),
+                                         {"units": kg, "long_name": f"dry N with the nitrate and "
+                                          f"ammonium pairs {how.replace('_', ' ')}"})
+            out[f"dry_N_{how}_status"] = (dims, np.where(
+                np.isfinite(alt), combine_status(np.concatenate(st, -1))[0], "missing"
+            ).astype(object), {"long_name": f"status of dry_N_{how}_kg_ha (docs/budget.md)"})
+        if "air_concentration" in ds:
+            c = ds["air_concentration"]
+            n_mass = element_molar_mass("N") * UG_PER_KG   # mol N -> ug N [ug mol-1]
+            for name, (gas, prt) in (("total_nitrate", PAIRS["nitrate"]),
+                                     ("total_ammonia_ammonium", PAIRS["ammonium"])):
+                if gas in c["air_species"].values and prt in c["air_species"].values:
+                    v = (c.sel(air_species=gas) + c.sel(air_species=prt)).values * n_mass
+                    out[f"{name}_ug_N_m3"] = (("site", "period"), v, {
+                        "units": "ug N m-3", "long_name": f"{gas} + {prt}, time-weighted mean"})
+    return xr.Dataset(out, coords={k: ds[k] for k in dims})

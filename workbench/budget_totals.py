@@ -1,0 +1,140 @@
+"""Sums of the budget's components and their status: the rule that combines the
+statuses of a sum (:func:`combine_status`), the sum of the values present
+(:func:`sum_present`), the per-element totals by pathway (:func:`add_totals`);
+re-exported by :mod:`workbench.budget`.
+"""
+from __future__ import annotations
+
+import numpy as np
+import xarray as xr
+
+
+def combine_status(statuses):
+    """Status of a sum of components along the last axis.
+
+    Precedence: ``missing`` (every component missing) > ``flagged`` (a present
+    component fails completeness) > ``partial`` (some component missing) > ``filled``
+    > ``complete``.
+
+    Returns
+    -------
+    status : ndarray of str
+    passes : ndarray of bool
+        The present components pass completeness (status not flagged or missing).
+    """
+    s = np.asarray(statuses, dtype=object)
+    missing = s == "missing"
+    out = np.where((s == "filled").any(-1), "filled", "complete").astype(object)
+    out = np.where(missing.any(-1), "partial", out)
+    out = np.where((s == "flagged").any(-1), "flagged", out)
+    out = np.where(missing.all(-1), "missing", out)
+    return out, ~np.isin(out, ("flagged", "missing"))
+
+
+
+def sum_present(values):
+    """Sum along the last axis of the values present [unit of `values`]; NaN where
+    every value is NaN (an empty selection too), never 0 for nothing.
+
+    The one sum of the budget's components: the totals (:func:`_totals`), the derived
+    sums (:func:`workbench.budget_derived.derived`) and the Monte Carlo's draws of them
+    (:func:`workbench.analysis.sitedraws.totals_of`).
+
+    >>> import numpy as np
+    >>> sum_present(np.array([[1.0, np.nan], [np.nan, np.nan]])).tolist()
+    [1.0, nan]
+    """
+    return np.where(np.isfinite(values).any(-1), np.nansum(values, -1), np.nan)
+
+
+def _totals(dep, status, compl, element, pathway, species, fails=None):
+    """Per-element sums by pathway and their status, from the component arrays.
+
+    Parameters
+    ----------
+    dep, status, compl : ndarray
+        (..., component) deposition [mol m-2], status (str) and completeness [1].
+    element, pathway, species : ndarray of str
+        Per component.
+    fails : ndarray of bool, optional
+        (..., component): a present component fails completeness.  A component
+        ``flagged`` for another reason (kept flagged samples, a sulfate basis that
+        fell back) is named in ``total_flagged_components`` but does not make the
+        sum fail.  Default: every ``flagged`` component fails.
+
+    Returns
+    -------
+    names : list of str
+        ``S_wet`` ... ``N_total``.
+    variables : dict
+        ``total_deposition`` [mol m-2], ``total_status``, ``total_passes``,
+        ``total_missing_components``, ``total_flagged_components``,
+        ``total_completeness`` [1] as xarray Variables with dims (site, receptor,
+        period, total).
+    """
+    if fails is None:
+        fails = np.asarray(status, dtype=object) == "flagged"
+    out = {}
+    for e in ("S", "N"):
+        for p in ("wet", "dry", "total"):
+            sel = (element == e) & ((pathway == p) if p != "total" else True)
+            d = dep[..., sel]
+            st = status[..., sel]
+            total = sum_present(d)
+            combined, _ = combine_status(st)
+            passes = ~(fails[..., sel] & (st != "missing")).any(-1) & (combined != "missing")
+            absent = np.full(total.shape, "", dtype=object)
+            flagged = np.full(total.shape, "", dtype=object)
+            for k, spn in enumerate(species[sel]):
+                absent = np.where(st[..., k] == "missing",
+                                  np.where(absent == "", spn, absent + " " + spn), absent)
+                flagged = np.where(st[..., k] == "flagged",
+                                   np.where(flagged == "", spn, flagged + " " + spn), flagged)
+            # np.fmin.reduce is what np.nanmin computes on a float array, without the
+            # all-NaN warning: no catch_warnings (process-wide filters, not safe when
+            # blocks of sites run on threads)
+            with np.errstate(all="ignore"):
+                worst = (np.fmin.reduce(np.where(st == "missing", np.nan, compl[..., sel]),
+                                        axis=-1)
+                         if (st != "missing").any() else np.full(total.shape, np.nan))
+            out[f"{e}_{p}"] = (total, combined, passes, absent, worst, flagged)
+    names = list(out)
+    dims = ("site", "receptor", "period", "total")
+
+    def stack(i):
+        return np.stack([out[n][i] for n in names], -1)
+    return names, {
+        "total_deposition": xr.Variable(dims, stack(0), {"units": "mol m-2",
+                                                         "long_name": "sum of components (element)"}),
+        "total_status": xr.Variable(dims, stack(1)),
+        "total_passes": xr.Variable(dims, stack(2), {
+            "long_name": "present components pass completeness (a component flagged only "
+                         "for kept flagged samples or a sulfate fallback passes)"}),
+        "total_missing_components": xr.Variable(dims, stack(3),
+                                                {"long_name": "components without data"}),
+        "total_flagged_components": xr.Variable(dims, stack(5),
+                                                {"long_name": "components with status flagged"}),
+        "total_completeness": xr.Variable(dims, stack(4), {"units": "1"})}
+
+
+def add_totals(ds: xr.Dataset) -> xr.Dataset:
+    """Per-element sums by pathway (wet, dry, total), their status and completeness.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        Components (dims site, receptor, period, component): ``deposition`` [mol m-2],
+        ``status``, ``completeness`` [1], coordinates ``element``, ``pathway``,
+        ``species``.
+
+    Returns
+    -------
+    xarray.Dataset
+        `ds` with the variables of :func:`_totals` and the coordinate ``total``.
+    """
+    order = ("site", "receptor", "period", "component")
+    names, totals = _totals(ds["deposition"].transpose(*order).values,
+                            ds["status"].transpose(*order).values,
+                            ds["completeness"].transpose(*order).values,
+                            ds["element"].values, ds["pathway"].values, ds["species"].values)
+    return ds.assign_coords(total=names).assign(totals)
