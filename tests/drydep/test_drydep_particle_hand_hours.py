@@ -453,8 +453,9 @@ STOKES_OVER_DRAG = {("fine_AS", 0.99): 1.0013, ("fine_AN", 0.99): 1.0013,
 def test_mode_settling_stokes_against_drag_measured(mode, rh):
     """How far the mass-weighted settling of a mode leaves Stokes' regime: the nodes of a
     grown coarse mode reach Re > 0.1, where Stokes' law overestimates the terminal
-    velocity (fluids 1.3.1 ``v_terminal``, its default drag correlation).  Not changed:
-    Zhang et al. (2001) settle with Stokes' law; the measurement is documented."""
+    velocity (fluids 1.3.1 ``v_terminal``, its default drag correlation).  The default
+    stays Stokes' law (Zhang et al. 2001); ``[dry] particle_settling = "drag"`` is the
+    option (test_drydep_settling.py; docs/methods_dry_particles.md 10.3)."""
     drag = pytest.importorskip("fluids.drag")
     t, pr = 290.0, 100000.0
     mu, _, _ = air_hand(t, pr)
