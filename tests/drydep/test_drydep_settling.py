@@ -303,3 +303,21 @@ def test_the_settling_table_of_the_document_is_the_codes():
     change = wide["drag"] / wide["stokes"] - 1.0
     assert (change <= 0).all()                              # drag never settles faster
     assert change.min() < -0.01                            # the coarse sea salt moves
+
+
+def test_drag_in_blocks_is_drag_in_one_call():
+    """Large arrays run in blocks on the engine's threads (``BLOCK_ELEMENTS``): the same
+    numbers as site by site in one block each."""
+    rng = np.random.default_rng(5)
+    shape = (4, 3, 4000)                                    # 48,000 > BLOCK_ELEMENTS
+    assert np.prod(shape) > p.BLOCK_ELEMENTS
+    rh, us, ra = (rng.uniform(lo, hi, shape) for lo, hi in ((0.3, 1.0), (0.05, 1.5), (5.0, 300.0)))
+    modes = (LogNormalMode(5e-6, 2.0, 2165.0, "sea_salt"), LogNormalMode(5e-6, 2.0, 2600.0, "none"))
+    land = np.array(["grass", "conifer_forest", "water"], dtype=object)[None, :, None]
+    whole = p.mass_weighted_velocities(modes, rh, us, ra, T, P, land, 1.0, 0.0, settling="drag")
+    for i in range(shape[0]):
+        part = p.mass_weighted_velocities(modes, rh[i:i + 1, :, :2000], us[i:i + 1, :, :2000],
+                                          ra[i:i + 1, :, :2000], T, P, land, 1.0, 0.0,
+                                          settling="drag")
+        for w, q in zip(whole, part):
+            np.testing.assert_allclose(w[i:i + 1, :, :2000], q, rtol=1e-14)
