@@ -16,6 +16,7 @@ from workbench.drydep.erisman1994 import SO2_CUTICLES
 from workbench.drydep.nh3_bidirectional import CUTICLE_RULES
 from workbench.drydep.options import USTAR_TRANSFERS, WETNESS_RULES
 from workbench.drydep.seasons import SEASON_RULES
+from workbench.drydep.settling import SETTLING_RULES
 from workbench.drydep.wetness import DEW_RULES
 from workbench.pipeline import Study
 from workbench.wet import WetOptions
@@ -32,7 +33,8 @@ CHOICES = {"wet": dict(wet_options_module._CHOICES), "budget": dict(BudgetOption
                    "dew_rule": DEW_RULES, "season_rule": SEASON_RULES,
                    "ustar_transfer": USTAR_TRANSFERS,
                    "nh3_treatment": ("deposition_only", "bidirectional"),
-                   "nh3_cuticle": CUTICLE_RULES, "so2_cuticle": SO2_CUTICLES}}
+                   "nh3_cuticle": CUTICLE_RULES, "so2_cuticle": SO2_CUTICLES,
+                   "particle_settling": SETTLING_RULES}}
 
 
 def _explicit(base):

@@ -123,6 +123,13 @@ BAD_SCENARIOS = {
                              "line 4, column 'dry.so2_cuticle': invalid value (unknown "
                              "so2_cuticle 'erisman94'; use one of scheme, erisman1994 (did "
                              "you mean 'erisman1994'?))"),
+    # [dry] particle_settling: a misspelt value, a value of the wrong type
+    "particle_settling_misspelt": ("[dry]\nparticle_settling = \"stoke\"\n",
+                                   "line 4, column 'dry.particle_settling': invalid value "
+                                   "(unknown particle_settling 'stoke'; use one of stokes, drag "
+                                   "(did you mean 'stokes'?))"),
+    "particle_settling_not_text": ("[dry]\nparticle_settling = 1\n",
+                                   "line 4, column 'dry.particle_settling'"),
     "fixed_vd_negative": ("[dry.fixed_velocity]\nSO2 = -0.5\n",
                           "line 4, column 'dry.fixed_velocity.SO2': out of range: got '-0.5'"),
 }

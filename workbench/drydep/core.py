@@ -121,7 +121,7 @@ _GAS_OPTIONS = ("gas_scheme", "gases", "nh3_treatment", "hno3_rc_floor",
                 "nh3_emission_potential", "nh3_acid_ratio", "rc_scale", "so2_codeposition",
                 "nh3_cuticle", "nh3_acid_ratio_from_air", "so2_cuticle")
 #: One particle mode (the mode itself is a parameter).
-_PARTICLE_OPTIONS = ("size_nodes",)
+_PARTICLE_OPTIONS = ("size_nodes", "particle_settling")
 _graph.declare("micromet", {"dry": _MICROMET_OPTIONS}, freeze=True,
                doc="steps 1-4: air, sun, surface layer, u*, L and Ra over each receptor")
 _graph.declare("canopy_state", {"dry": _STATE_OPTIONS}, freeze=True,
@@ -410,7 +410,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         if todo:
             view = found[todo[0]][2]          # the step's guarded view of the options
             new = dict(zip(todo, _particles.mass_weighted_velocities(
-                todo, rh, us_r, ra, temp, pres, land, cat, wet, view.size_nodes)))
+                todo, rh, us_r, ra, temp, pres, land, cat, wet, view.size_nodes,
+                settling=view.particle_settling)))
             for mode in todo:
                 if cache is not None:
                     cache.store("particle_mode_vd", found[mode][0], {"vd": new[mode]})
@@ -660,6 +661,7 @@ def velocities(met: xr.Dataset, surfaces: xr.Dataset, options: DryOptions | None
                 "nh3_cuticle": _nh3.resolve_cuticle(opt.nh3_cuticle,
                                                     _gas.get_scheme(opt.gas_scheme)),
                 "so2_cuticle": opt.so2_cuticle,
+                "particle_settling": opt.particle_settling,
                 "ustar_floor_m_s": opt.ustar_floor, "ra_cap_s_m": opt.ra_cap,
                 "blending_height_m": opt.blending_height,
                 "time_convention": "end of each hour, UTC"}

@@ -189,6 +189,15 @@ class DryOptions:
         of km inland; from memory). [m]
     size_nodes : int
         Gauss-Hermite nodes per log-normal mode for the mass-weighted particle Vd.
+    particle_settling : str
+        Terminal settling velocity v_g of the particle scheme. ``"stokes"`` (default):
+        Stokes' law with the slip correction, Zhang et al. (2001) Eq. 2, the published
+        scheme. ``"drag"``: the continuum terminal velocity from the drag correlation of
+        Clift and Gauvin (1970), valid to Re 2e5, times the same slip correction
+        (:mod:`workbench.drydep.settling`), in the settling term and in the Stokes number
+        of impaction and rebound alike; it matters for the grown coarse tail (sea salt
+        at high humidity, annual Vd of pNa and pCl lower by a few per cent on the demo).
+        docs/methods_dry_particles.md section 10.3.
     unstable_iterations : int
         Bisection steps of the unstable u* solve.
     charnock_iterations : int
@@ -276,6 +285,7 @@ class DryOptions:
     particle_modes: dict = field(default_factory=default_particle_modes)
     coastal_distance: float = 50e3
     size_nodes: int = 12
+    particle_settling: str = "stokes"
     unstable_iterations: int = 30
     charnock_iterations: int = 8
     nh3_treatment: str = "deposition_only"
@@ -334,6 +344,8 @@ class DryOptions:
                              f"{CUTICLE_RULES}")
         from .erisman1994 import check_rule
         check_rule(self.so2_cuticle)
+        from .settling import check_settling
+        check_settling(self.particle_settling)
         if not self.nh3_acid_ratio > 0:
             raise ValueError("nh3_acid_ratio must be > 0")
         from ..species import AIR_GASES

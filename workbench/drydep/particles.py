@@ -3,7 +3,9 @@
 .. math:: V_d = v_g + \\frac{1}{R_a + R_s},\\qquad
           R_s = \\frac{1}{\\varepsilon_0 u_* (E_B + E_{IM} + E_{IN}) R_1}
 
-with gravitational settling v_g (Stokes law with the Cunningham slip correction),
+with gravitational settling v_g (Stokes law with the Cunningham slip correction; under
+``[dry] particle_settling = "drag"`` the drag correlation of Clift and Gauvin 1970,
+:mod:`workbench.drydep.settling`, in v_g and in St),
 collection by Brownian diffusion E_B = Sc^-gamma, impaction
 E_IM = (St/(alpha + St))^2, interception E_IN = (d_p/A)^2 / 2 and the rebound
 factor R_1 = exp(-St^1/2) (R_1 = 1 on wet surfaces).  Particles first grow with
@@ -38,11 +40,12 @@ from ..constants import BOLTZMANN, GRAVITY, WATER_DENSITY
 from ..surface._array import (aligned, block_of, block_size, block_slices, is_xarray,
                               threads_for)
 from ..threads import run_each
-from ..surface.air import dynamic_viscosity, mean_free_path
+from ..surface.air import dynamic_viscosity, kinematic_viscosity, mean_free_path
 # the constants, table and nodes of the scheme live in zhang_tables (shared with the
 # implementation in particles_numpy, which this module imports: imports go one way);
 # re-exported here
 from .particles_numpy import ZhangSurface
+from .settling import check_settling, drag_ratio
 from .zhang_tables import (_ROW, _SLIP_EXP_MIN, EPSILON_0, GERBER, GROWTH_RH_MAX,  # noqa: F401
                            KAPPA, M_PER_CM, M_PER_MM, SLIP_A, SLIP_B, SLIP_C, ZHANG_LUC, _hermgauss,
                            _luc_table, _rows, lognormal_nodes)
@@ -81,8 +84,8 @@ def slip_correction(diameter, temperature, pressure):
     return 1.0 + kn * (SLIP_A + SLIP_B * np.exp(-SLIP_C / kn))
 
 
-def settling_velocity(diameter, density, temperature, pressure):
-    """Gravitational settling velocity (Stokes law with slip correction) [m s-1].
+def settling_velocity(diameter, density, temperature, pressure, settling="stokes"):
+    """Gravitational settling velocity (Stokes law or a drag correlation, with slip) [m s-1].
 
     Parameters
     ----------
@@ -92,6 +95,9 @@ def settling_velocity(diameter, density, temperature, pressure):
         Particle density. [kg m-3]
     temperature, pressure : array_like
         [K], [Pa]
+    settling : str
+        ``"stokes"`` (default; Zhang et al. 2001, Eq. 2) or ``"drag"`` (the drag
+        correlation of Clift and Gauvin 1970, :mod:`workbench.drydep.settling`).
 
     Returns
     -------
@@ -102,12 +108,22 @@ def settling_velocity(diameter, density, temperature, pressure):
     -----
     .. math:: v_g = \\frac{\\rho_p d_p^2 g C_c}{18\\mu}
 
+    Under ``"drag"`` this is multiplied by
+    :func:`~workbench.drydep.settling.drag_ratio` of Re_S = rho_p d^3 g / (18 mu nu),
+    the continuum terminal velocity of the drag correlation over Stokes'.
+
     References
     ----------
-    Seinfeld and Pandis (2006), Eq. (9.42); Zhang et al. (2001), Eq. (2).
+    Seinfeld and Pandis (2006), Eq. (9.42); Zhang et al. (2001), Eq. (2); Clift and
+    Gauvin (1970) (``"drag"``).
     """
     cc = slip_correction(diameter, temperature, pressure)
-    return density * diameter ** 2 * GRAVITY * cc / (18.0 * dynamic_viscosity(temperature))
+    mu = dynamic_viscosity(temperature)
+    vg = density * diameter ** 2 * GRAVITY * cc / (18.0 * mu)
+    if check_settling(settling) == "stokes":
+        return vg
+    nu = kinematic_viscosity(temperature, pressure, viscosity=mu)
+    return vg * drag_ratio(vg / cc * diameter / nu)
 
 
 def brownian_diffusivity(diameter, temperature, pressure):
@@ -173,7 +189,7 @@ def wet_density(dry_diameter, wet_diameter_, dry_density):
 
 
 def surface_resistance(diameter, density, ustar, temperature, pressure, land_use,
-                       seasonal_category, wet=0.0, receptor_dim="receptor"):
+                       seasonal_category, wet=0.0, receptor_dim="receptor", settling="stokes"):
     """Surface resistance R_s of particles, Zhang et al. (2001) [s m-1].
 
     Parameters
@@ -193,6 +209,9 @@ def surface_resistance(diameter, density, ustar, temperature, pressure, land_use
     wet : array_like
         1 where the surface is wet (no rebound), 0 dry; open water is always wet. [-]
     receptor_dim : str
+    settling : str
+        ``"stokes"`` or ``"drag"``: the v_g of the Stokes number
+        (:func:`settling_velocity`).
 
     Returns
     -------
@@ -208,13 +227,15 @@ def surface_resistance(diameter, density, ustar, temperature, pressure, land_use
     ``xarray.apply_ufunc``).
     """
     args = (0.0, ustar, 0.0, temperature, pressure, seasonal_category, wet)
-    return _through_zhang(lambda arrays, land, sizes: _surface(arrays, land).resistance(*sizes),
-                          args, land_use, receptor_dim, (diameter, density))
+    return _through_zhang(
+        lambda arrays, land, sizes: _surface(arrays, land, settling).resistance(*sizes),
+        args, land_use, receptor_dim, (diameter, density))
 
 
 def particle_deposition_velocity(dry_diameter, dry_density, relative_humidity, ustar, ra,
                                  temperature, pressure, land_use, seasonal_category,
-                                 wet=0.0, growth="ammonium_sulfate", receptor_dim="receptor"):
+                                 wet=0.0, growth="ammonium_sulfate", receptor_dim="receptor",
+                                 settling="stokes"):
     """Dry deposition velocity of particles of one dry diameter [m s-1].
 
     Parameters
@@ -238,6 +259,8 @@ def particle_deposition_velocity(dry_diameter, dry_density, relative_humidity, u
     growth : str
         Growth law (see :func:`wet_diameter`).
     receptor_dim : str
+    settling : str
+        ``"stokes"`` or ``"drag"`` (:func:`settling_velocity`).
 
     Returns
     -------
@@ -255,12 +278,13 @@ def particle_deposition_velocity(dry_diameter, dry_density, relative_humidity, u
     """
     args = (relative_humidity, ustar, ra, temperature, pressure, seasonal_category, wet)
     return _through_zhang(
-        lambda arrays, land, sizes: _surface(arrays, land).velocity(*sizes, growth),
+        lambda arrays, land, sizes: _surface(arrays, land, settling).velocity(*sizes, growth),
         args, land_use, receptor_dim, (dry_diameter, dry_density))
 
 
 def mass_weighted_velocity(mode, relative_humidity, ustar, ra, temperature, pressure, land_use,
-                           seasonal_category, wet=0.0, nodes=12, receptor_dim="receptor"):
+                           seasonal_category, wet=0.0, nodes=12, receptor_dim="receptor",
+                           settling="stokes"):
     """Mass-weighted Vd over a log-normal mass distribution [m s-1].
 
     Parameters
@@ -284,6 +308,8 @@ def mass_weighted_velocity(mode, relative_humidity, ustar, ra, temperature, pres
     nodes : int
         Gauss-Hermite nodes.
     receptor_dim : str
+    settling : str
+        ``"stokes"`` or ``"drag"`` (:func:`settling_velocity`).
 
     Returns
     -------
@@ -299,7 +325,8 @@ def mass_weighted_velocity(mode, relative_humidity, ustar, ra, temperature, pres
     xarray and dask input).
     """
     return mass_weighted_velocities((mode,), relative_humidity, ustar, ra, temperature, pressure,
-                                    land_use, seasonal_category, wet, nodes, receptor_dim)[0]
+                                    land_use, seasonal_category, wet, nodes, receptor_dim,
+                                    settling)[0]
 
 
 def _is_numpy(*args) -> bool:
@@ -318,9 +345,10 @@ def _is_numpy(*args) -> bool:
                                             for a in args)
 
 
-def _surface(arrays, land_use):
-    """:class:`ZhangSurface` of `arrays` (rh, u*, R_a, T, p, category, wet) and `land_use`."""
-    return ZhangSurface(*arrays[:5], land_use, *arrays[5:])
+def _surface(arrays, land_use, settling="stokes"):
+    """:class:`ZhangSurface` of `arrays` (rh, u*, R_a, T, p, category, wet), `land_use`
+    and the `settling` rule."""
+    return ZhangSurface(*arrays[:5], land_use, *arrays[5:], settling=settling)
 
 
 #: Names of the rows of :data:`ZHANG_LUC` (land use goes to dask chunks as row numbers).
@@ -394,7 +422,7 @@ def _through_zhang(compute, args, land_use, receptor_dim, sizes=(), n_modes=None
 
 def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, pressure,
                              land_use, seasonal_category, wet=0.0, nodes=12,
-                             receptor_dim="receptor"):
+                             receptor_dim="receptor", settling="stokes"):
     """Mass-weighted Vd of several log-normal modes over the same surfaces [m s-1].
 
     Parameters
@@ -409,6 +437,9 @@ def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, p
         Gauss-Hermite nodes per mode.
     receptor_dim : str
         Name of the receptor dimension (xarray input).
+    settling : str
+        ``"stokes"`` (Zhang et al. 2001, Eq. 2) or ``"drag"`` (Clift and Gauvin 1970;
+        :mod:`workbench.drydep.settling`): v_g in the settling term and in St.
 
     Returns
     -------
@@ -433,13 +464,14 @@ def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, p
     args = (relative_humidity, ustar, ra, temperature, pressure, seasonal_category, wet)
     if not _is_numpy(*args):
         stacked = _through_zhang(
-            lambda arrays, land, _: np.stack(_numpy_velocities(modes, arrays, land, nodes), -1),
+            lambda arrays, land, _: np.stack(
+                _numpy_velocities(modes, arrays, land, nodes, settling), -1),
             args, land_use, receptor_dim, (), n_modes=len(modes))
         return [stacked[..., i] for i in range(len(modes))]
-    return _numpy_velocities(modes, args, land_use, nodes)
+    return _numpy_velocities(modes, args, land_use, nodes, settling)
 
 
-def _numpy_velocities(modes, arrays, land_use, nodes):
+def _numpy_velocities(modes, arrays, land_use, nodes, settling="stokes"):
     """:func:`mass_weighted_velocities` of numpy `arrays` (the order of its `args`) [m s-1]."""
     arrays = [np.asarray(a, dtype=float) for a in arrays]
     land = land_use if isinstance(land_use, str) else np.asarray(land_use, dtype=object)
@@ -449,7 +481,7 @@ def _numpy_velocities(modes, arrays, land_use, nodes):
     n_threads = threads_for(n)
     blocks = list(block_slices(shape, block_size(n_threads, BLOCK_ELEMENTS)))
     if len(blocks) == 1:
-        surface = ZhangSurface(*arrays[:5], land, *arrays[5:])
+        surface = ZhangSurface(*arrays[:5], land, *arrays[5:], settling=settling)
         return [surface.mass_weighted(mode, nodes) for mode in modes]
     arrays = [aligned(a, len(shape)) for a in arrays]
     land = land if isinstance(land, str) else aligned(land, len(shape))
@@ -459,7 +491,7 @@ def _numpy_velocities(modes, arrays, land_use, nodes):
         block = blocks[i]
         part = [block_of(a, block) for a in arrays]
         surface = ZhangSurface(*part[:5], land if isinstance(land, str)
-                               else block_of(land, block), *part[5:])
+                               else block_of(land, block), *part[5:], settling=settling)
         for vd, mode in zip(out, modes):
             vd[block] = surface.mass_weighted(mode, nodes)
     run_each(task, len(blocks), n_threads)  # the engine's threads (workbench.threads)

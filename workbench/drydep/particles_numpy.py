@@ -17,6 +17,7 @@ import numpy as np
 
 from ..constants import BOLTZMANN, GRAVITY, WATER_DENSITY
 from ..surface.air import dynamic_viscosity, kinematic_viscosity, mean_free_path
+from .settling import check_settling, drag_ratio
 from .zhang_tables import (_ROW, _SLIP_EXP_MIN, EPSILON_0, GERBER, GROWTH_RH_MAX, KAPPA,
                            M_PER_CM,
                            SLIP_A, SLIP_B, SLIP_C, _luc_table, _rows, lognormal_nodes)
@@ -59,10 +60,15 @@ class ZhangSurface:
         1-5 (NaN unknown). [-]
     wet : array_like
         [0/1] (NaN unknown)
+    settling : str
+        ``"stokes"`` (Zhang et al. 2001, Eq. 2; default) or ``"drag"``: v_g from the
+        drag correlation of :mod:`workbench.drydep.settling`, in the v_g term and in
+        the Stokes number alike.
     """
 
     def __init__(self, relative_humidity, ustar, ra, temperature, pressure, land_use,
-                 seasonal_category, wet):
+                 seasonal_category, wet, settling="stokes"):
+        self.settling = check_settling(settling)
         f = lambda x: np.asarray(x, dtype=float)  # noqa: E731
         rh, us, ra, t, p = f(relative_humidity), f(ustar), f(ra), f(temperature), f(pressure)
         cat, wet = f(seasonal_category), f(wet)
@@ -81,6 +87,7 @@ class ZhangSurface:
         self.slip_exp_per_d = -SLIP_C / (2.0 * free_path)         # [m-1]
         self.vg_per_rho_d2_cc = GRAVITY / (18.0 * mu)             # [m2 s-1 kg-1]
         self.sc_per_d_over_cc = 3.0 * np.pi * mu * nu / (BOLTZMANN * t)  # [m-1]
+        self.per_nu = 1.0 / nu                                    # [s m-2]
         a_tab, alpha, gamma, smooth = _luc_table()
         self.neg_gamma, self.alpha = -gamma[rows], alpha[rows]
         smooth = smooth[rows]
@@ -179,6 +186,8 @@ class ZhangSurface:
         C_c = 1 + (2 lambda/d)(A + B exp(-C d/(2 lambda))),
         v_g = (rho_p d^2 C_c) g/(18 mu) and Sc = nu/D_B = (d/C_c) 3 pi mu nu/(k_B T).
         A test holds the two forms equal (tests/drydep/test_drydep_particles.py).
+        Under ``settling="drag"`` v_g is then multiplied by
+        :func:`~workbench.drydep.settling.drag_ratio` of Re_S = v_g d / (C_c nu).
         """
         dw, d2, rho, cc, log_sc, _ = work
         np.multiply(dw, dw, out=d2)
@@ -197,6 +206,8 @@ class ZhangSurface:
         vg *= d2
         vg *= cc
         vg *= self.vg_per_rho_d2_cc
+        if self.settling == "drag":   # Stokes' Reynolds number d w_S / nu, w_S = v_g / C_c
+            vg *= drag_ratio(vg * dw * self.per_nu / cc)
         return vg, log_sc, d2
 
     def _resistance(self, vg, log_sc, d2, e, st, x, sqrt_vg):

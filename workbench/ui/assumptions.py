@@ -267,6 +267,8 @@ def _build() -> dict:
         _mode_size("fine", "fine-mode MMD [um]", (0.05, 2.5, 0.05), (0.1, 1.0)),
         _mode_size("coarse", "coarse-mode MMD [um]", (1.0, 20.0, 0.5), (2.0, 10.0)),
         *[_fine_fraction(sp) for sp in PARTICLE_SPECIES],
+        _option("dry", "particle_settling", "particle settling", "particles", "choice",
+                (("Stokes' law (Zhang 2001)", "stokes"), ("drag correlation", "drag"))),
         _option("budget", "pair_split", "gas/particle split of the nitrate and ammonium pairs",
                 "gas/particle pairs", "choice",
                 (("as measured", "measured"), ("all as gas", "all_gas"),
