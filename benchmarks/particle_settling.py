@@ -1,4 +1,4 @@
-"""Time of the particle Vd under ``[dry] particle_settling = "stokes"`` and ``"drag"``.
+"""Time of the particle Vd under ``[dry] particle_settling = "stokes"`` and ``"clift_gauvin"``.
 
     python benchmarks/particle_settling.py                 # demo year 2021, 5 repeats
     python benchmarks/particle_settling.py --repeat 9
@@ -31,7 +31,7 @@ def main(argv=None):
     study = Study.from_scenario(load_scenario(ROOT / "demo_data" / "scenario.toml"))
     met = study.inputs.met.sel(time=slice("2021-01-01T01:00", "2022-01-01T00:00"))
     surf = study.surfaces()
-    times = {"stokes": [], "drag": []}
+    times = {"stokes": [], "clift_gauvin": []}
     for _ in range(args.repeat):
         for rule in times:
             t0 = time.perf_counter()
@@ -41,8 +41,8 @@ def main(argv=None):
     for rule, t in times.items():
         print(f"{rule}: median {statistics.median(t):.3f} s, best {min(t):.3f} s")
     print(f"drag / stokes: medians "
-          f"{statistics.median(times['drag']) / statistics.median(times['stokes']):.2f}, "
-          f"best {min(times['drag']) / min(times['stokes']):.2f}")
+          f"{statistics.median(times['clift_gauvin']) / statistics.median(times['stokes']):.2f}, "
+          f"best {min(times['clift_gauvin']) / min(times['stokes']):.2f}")
 
 
 if __name__ == "__main__":

@@ -6,7 +6,7 @@ docs/methods_dry_particles.md (section 10.3) is replaced.  The numbers are the a
 means of the demo year 2021 (hourly, every hour with a value) of
 :func:`workbench.drydep.velocities` on the demo scenario's met and surfaces under
 ``[dry] particle_settling = "stokes"`` (the default, Zhang et al. 2001 Eq. 2) and
-``"drag"`` (Clift and Gauvin 1970), every other option at its default (the particle
+``"clift_gauvin"`` (Clift and Gauvin 1970), every other option at its default (the particle
 scheme does not depend on the gas scheme).  ``tests/drydep/test_drydep_settling.py``
 computes the same means and fails when the table in the document is not the one they
 give.
@@ -24,7 +24,7 @@ DEMO = Path(__file__).resolve().parent.parent / "demo_data" / "scenario.toml"
 YEAR = ("2021-01-01T01:00", "2022-01-01T00:00")
 PARTICLES = ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa")
 #: Values of ``DryOptions.particle_settling``, the default first.
-RULES = ("stokes", "drag")
+RULES = ("stokes", "clift_gauvin")
 MARKERS = ("<!-- vd-settling -->", "<!-- /vd-settling -->")
 
 
@@ -70,7 +70,7 @@ def settling_table(table) -> str:
         return float(row["vd_cm_s"].iloc[0])
     pairs = list(dict.fromkeys(zip(table.site, table.receptor)))
     lines = [f"Annual mean Vd [cm/s], demo year {YEAR[0][:4]}, every other option at its "
-             "default", "(S: `particle_settling = \"stokes\"`, the default; D: `\"drag\"`):",
+             "default", "(S: `particle_settling = \"stokes\"`, the default; D: `\"clift_gauvin\"`):",
              "", "| site receptor | " + " | ".join(f"{sp} S | {sp} D" for sp in PARTICLES)
              + " |", "|---|" + "---|" * (2 * len(PARTICLES))]
     for site, rec in pairs:

@@ -126,7 +126,7 @@ BAD_SCENARIOS = {
     # [dry] particle_settling: a misspelt value, a value of the wrong type
     "particle_settling_misspelt": ("[dry]\nparticle_settling = \"stoke\"\n",
                                    "line 4, column 'dry.particle_settling': invalid value "
-                                   "(unknown particle_settling 'stoke'; use one of stokes, drag "
+                                   "(unknown particle_settling 'stoke'; use one of stokes, clift_gauvin "
                                    "(did you mean 'stokes'?))"),
     "particle_settling_not_text": ("[dry]\nparticle_settling = 1\n",
                                    "line 4, column 'dry.particle_settling'"),

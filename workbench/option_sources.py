@@ -146,7 +146,7 @@ DRY = {
     "size_nodes": ("our choice", "numerical: 12 Gauss-Hermite nodes per mode, far finer "
                    "than the precision of the Vd model"),
     "particle_settling": ("published", "Stokes' law with the slip correction, Zhang et al. "
-                          "(2001) Eq. 2, the published scheme; \"drag\" (Clift and Gauvin "
+                          "(2001) Eq. 2, the published scheme; \"clift_gauvin\" (Clift and Gauvin "
                           "1970) slows the grown coarse tail (docs/methods_dry_particles.md "
                           "section 10.3)"),
     "unstable_iterations": ("our choice", "numerical: 30 bisection halvings narrow u* to "

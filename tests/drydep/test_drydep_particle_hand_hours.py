@@ -194,7 +194,7 @@ def terminal_drag_hand(dw, rho, t, p_):
     """Continuum terminal velocity [m/s] of each particle under the Clift and Gauvin
     (1970) drag, C_D from ``fluids.drag.Clift_Gauvin`` (fluids 1.3.1), by
     ``scipy.optimize.brentq`` on w^2 = 4 g d rho_p / (3 rho_a C_D(rho_a w d / mu)), no
-    buoyancy (``[dry] particle_settling = "drag"``, docs/methods_dry_particles.md 10.3)."""
+    buoyancy (``[dry] particle_settling = "clift_gauvin"``, docs/methods_dry_particles.md 10.3)."""
     from fluids.drag import Clift_Gauvin
     from scipy import optimize
     mu, nu, _ = air_hand(t, p_)
@@ -360,13 +360,13 @@ def test_species_vd_by_hand(runs, record, i, what, receptor):
 def runs_drag():
     surf = syn.make_surfaces(SITES)
     return {name: (make().isel(site=0), velocities(make(), surf, DryOptions(
-        gases=(), particle_settling="drag")).isel(site=0)) for name, make in RECORDS.items()}
+        gases=(), particle_settling="clift_gauvin")).isel(site=0)) for name, make in RECORDS.items()}
 
 
 @pytest.mark.parametrize("record,i,what", HOURS)
 @pytest.mark.parametrize("receptor", RECEPTORS)
 def test_species_vd_by_hand_under_drag(runs, runs_drag, record, i, what, receptor):
-    """``[dry] particle_settling = "drag"``: vd_<species> of the engine against the same
+    """``[dry] particle_settling = "clift_gauvin"``: vd_<species> of the engine against the same
     hand sum with v_g = C_c w, w the Clift and Gauvin (1970) terminal velocity by brentq
     on the force balance with fluids' C_D (:func:`terminal_drag_hand`), in the settling
     term and in St; the hour's micrometeorology is the Stokes run's (settling moves no
@@ -454,7 +454,7 @@ def test_mode_settling_stokes_against_drag_measured(mode, rh):
     """How far the mass-weighted settling of a mode leaves Stokes' regime: the nodes of a
     grown coarse mode reach Re > 0.1, where Stokes' law overestimates the terminal
     velocity (fluids 1.3.1 ``v_terminal``, its default drag correlation).  The default
-    stays Stokes' law (Zhang et al. 2001); ``[dry] particle_settling = "drag"`` is the
+    stays Stokes' law (Zhang et al. 2001); ``[dry] particle_settling = "clift_gauvin"`` is the
     option (test_drydep_settling.py; docs/methods_dry_particles.md 10.3)."""
     drag = pytest.importorskip("fluids.drag")
     t, pr = 290.0, 100000.0

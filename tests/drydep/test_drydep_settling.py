@@ -1,4 +1,4 @@
-"""Settling beyond Stokes' regime: ``[dry] particle_settling = "drag"`` (workbench.drydep.settling).
+"""Settling beyond Stokes' regime: ``[dry] particle_settling = "clift_gauvin"`` (workbench.drydep.settling).
 
 Outside references (named beside each check):
 
@@ -88,7 +88,7 @@ def test_the_newton_steps_converge_to_1e_6():
 
 @pytest.mark.parametrize("rho_p", [1000.0, 2165.0, 2600.0])
 def test_terminal_velocity_against_fluids_v_terminal(rho_p):
-    """v_g / C_c of ``settling_velocity(..., "drag")`` against ``fluids.drag.v_terminal``
+    """v_g / C_c of ``settling_velocity(..., "clift_gauvin")`` against ``fluids.drag.v_terminal``
     with ``Method="Clift_Gauvin"`` (density rho_p + rho_a: no buoyancy), Re 1e-3 to 1e3.
     Where the library's Stokes Re is 0.01 or more it solves the balance (secant, xtol
     1e-12): within 1e-8.  Below, it returns Stokes' law by its own rule: there ours
@@ -97,7 +97,7 @@ def test_terminal_velocity_against_fluids_v_terminal(rho_p):
     n_solved = 0
     for re in RE_TARGETS:
         d = _diameter_for(re, rho_p)
-        ours = p.settling_velocity(d, rho_p, T, P, "drag") / p.slip_correction(d, T, P)
+        ours = p.settling_velocity(d, rho_p, T, P, "clift_gauvin") / p.slip_correction(d, T, P)
         lib = fluids_drag.v_terminal(d, rho_p + RHO_A, RHO_A, MU, Method="Clift_Gauvin")
         v_stokes = 9.80665 * d * d * rho_p / (18.0 * MU)
         if RHO_A * v_stokes * d / MU >= 0.01:
@@ -119,7 +119,7 @@ def test_the_stokes_limit():
     order, under 1e-4 at 1 um."""
     d = np.logspace(-8, np.log10(3e-6), 30)
     stokes = p.settling_velocity(d, 2000.0, T, P)
-    drag = p.settling_velocity(d, 2000.0, T, P, "drag")
+    drag = p.settling_velocity(d, 2000.0, T, P, "clift_gauvin")
     cc = p.slip_correction(d, T, P)
     lib = np.array([fluids_drag.v_terminal(x, 2000.0 + RHO_A, RHO_A, MU, Method="Stokes")
                     for x in d]) * cc
@@ -145,7 +145,7 @@ def test_settling_by_brentq_on_the_balance():
                     re = rho_a * w * x / mu
                     return w * w * 3.0 * rho_a * fluids_drag.Clift_Gauvin(re) - 4 * 9.80665 * x * rho_p
                 want.append(optimize.brentq(err, 1e-12, 100.0, xtol=1e-16, rtol=1e-14))
-            got = p.settling_velocity(d, rho_p, t, pr, "drag") / p.slip_correction(d, t, pr)
+            got = p.settling_velocity(d, rho_p, t, pr, "clift_gauvin") / p.slip_correction(d, t, pr)
             np.testing.assert_allclose(got, want, rtol=1e-9)
 
 
@@ -155,11 +155,11 @@ def test_the_stokes_number_takes_the_drag_velocity():
     v_g: the drag's v_g is what enters St (docs/methods_dry_particles.md 10.3)."""
     d = np.array([5e-6, 30e-6, 100e-6, 400e-6])
     rho = 2165.0
-    ratio = p.settling_velocity(d, rho, T, P, "drag") / p.settling_velocity(d, rho, T, P)
+    ratio = p.settling_velocity(d, rho, T, P, "clift_gauvin") / p.settling_velocity(d, rho, T, P)
     assert ratio[-1] < 0.5                                  # far beyond Stokes' regime
     for land, wet in (("grass", 0.0), ("conifer_forest", 0.0), ("deciduous_forest", 1.0),
                       ("water", 0.0)):
-        drag = p.surface_resistance(d, rho, 0.4, T, P, land, 1.0, wet, settling="drag")
+        drag = p.surface_resistance(d, rho, 0.4, T, P, land, 1.0, wet, settling="clift_gauvin")
         same = p.surface_resistance(d, rho * ratio, 0.4, T, P, land, 1.0, wet)
         np.testing.assert_allclose(drag, same, rtol=1e-12)
         stokes = p.surface_resistance(d, rho, 0.4, T, P, land, 1.0, wet)
@@ -171,7 +171,7 @@ def test_one_node_is_settling_plus_the_surface_term():
     Eq. 1) from the public pieces: ZhangSurface's v_g is settling_velocity's."""
     d = np.array([1e-6, 10e-6, 40e-6])
     rh, us, ra, land = 0.97, 0.5, 30.0, "grass"
-    for rule in ("stokes", "drag"):
+    for rule in ("stokes", "clift_gauvin"):
         vd = p.particle_deposition_velocity(d, 2165.0, rh, us, ra, T, P, land, 1.0, 0.0,
                                             "sea_salt", settling=rule)
         dw = p.wet_diameter(d, rh, "sea_salt")
@@ -183,9 +183,9 @@ def test_one_node_is_settling_plus_the_surface_term():
 
 def test_default_is_stokes_and_a_bad_rule_is_refused():
     assert DryOptions().particle_settling == "stokes"
-    assert s.SETTLING_RULES == ("stokes", "drag")
-    with pytest.raises(ValueError, match="unknown particle_settling 'Drag'.*did you mean 'drag'"):
-        DryOptions(particle_settling="Drag")
+    assert s.SETTLING_RULES == ("stokes", "clift_gauvin")
+    with pytest.raises(ValueError, match="unknown particle_settling 'Clift_Gauvin'.*did you mean 'clift_gauvin'"):
+        DryOptions(particle_settling="Clift_Gauvin")
     with pytest.raises(ValueError, match="particle_settling"):
         p.settling_velocity(1e-6, 1000.0, T, P, "newton")
 
@@ -209,13 +209,13 @@ def test_mass_weighted_drag_on_xarray_and_dask_is_numpy():
     us = rng.uniform(0.05, 1.5, (2, 3, 50))
     ra = rng.uniform(5.0, 300.0, (2, 3, 50))
     mode = LogNormalMode(5e-6, 2.0, 2165.0, "sea_salt")
-    want = p.mass_weighted_velocity(mode, rh, us, ra, T, P, "grass", 1.0, 0.0, settling="drag")
+    want = p.mass_weighted_velocity(mode, rh, us, ra, T, P, "grass", 1.0, 0.0, settling="clift_gauvin")
     dims = ("site", "receptor", "time")
     da = [xr.DataArray(a, dims=dims) for a in (rh, us, ra)]
-    got = p.mass_weighted_velocity(mode, *da, T, P, "grass", 1.0, 0.0, settling="drag")
+    got = p.mass_weighted_velocity(mode, *da, T, P, "grass", 1.0, 0.0, settling="clift_gauvin")
     np.testing.assert_allclose(got.values, want, rtol=1e-13)
     lazy = [a.chunk({"time": 20}) for a in da]
-    got = p.mass_weighted_velocity(mode, *lazy, T, P, "grass", 1.0, 0.0, settling="drag")
+    got = p.mass_weighted_velocity(mode, *lazy, T, P, "grass", 1.0, 0.0, settling="clift_gauvin")
     assert got.chunks is not None
     np.testing.assert_allclose(got.compute().values, want, rtol=1e-13)
     stokes = p.mass_weighted_velocity(mode, rh, us, ra, T, P, "grass", 1.0, 0.0)
@@ -234,7 +234,7 @@ def test_mode_settling_drag_against_fluids_for_every_default_mode():
         for rh in (0.5, 0.99):
             dw = p.wet_diameter(d, rh, mode.growth)
             rho = p.wet_density(d, dw, mode.density)
-            ours = np.sum(w * p.settling_velocity(dw, rho, T, P, "drag"))
+            ours = np.sum(w * p.settling_velocity(dw, rho, T, P, "clift_gauvin"))
             lib = np.sum(w * p.slip_correction(dw, T, P) * np.array(
                 [fluids_drag.v_terminal(a, b + RHO_A, RHO_A, MU, Method="Clift_Gauvin")
                  for a, b in zip(dw, rho)]))
@@ -254,7 +254,7 @@ def _met():
 
 
 def test_velocities_under_drag():
-    """The engine: ``DryOptions(particle_settling="drag")`` lowers the coarse species'
+    """The engine: ``DryOptions(particle_settling="clift_gauvin")`` lowers the coarse species'
     Vd (pNa most at high humidity), leaves the gases and every other output alone, names
     the rule in the attributes, and its Vd is the public function's on the hour's air."""
     from tests.drydep import dry_synthetic as syn
@@ -262,8 +262,8 @@ def test_velocities_under_drag():
                                         10.0, 2.0, 0.0, "grass")})
     met = _met()
     a = velocities(met, surf, DryOptions(gases=("SO2",)))
-    b = velocities(met, surf, DryOptions(gases=("SO2",), particle_settling="drag"))
-    assert a.attrs["particle_settling"] == "stokes" and b.attrs["particle_settling"] == "drag"
+    b = velocities(met, surf, DryOptions(gases=("SO2",), particle_settling="clift_gauvin"))
+    assert a.attrs["particle_settling"] == "stokes" and b.attrs["particle_settling"] == "clift_gauvin"
     for name in a.data_vars:
         if name.startswith("vd_p"):
             continue
@@ -282,7 +282,7 @@ def test_velocities_under_drag():
                                     o["friction_velocity"].values, o["ra"].values,
                                     m["temperature"].values, m["pressure"].values, "grass",
                                     o["seasonal_category"].values, o["surface_wet"].values,
-                                    settling="drag")
+                                    settling="clift_gauvin")
     np.testing.assert_allclose(o["vd_pNa"].values, want, rtol=1e-12)
 
 
@@ -300,7 +300,7 @@ def test_the_settling_table_of_the_document_is_the_codes():
     assert script.in_document() == script.settling_table(table)
     wide = table.pivot_table(index=["site", "receptor", "species"], columns="particle_settling",
                              values="vd_cm_s")
-    change = wide["drag"] / wide["stokes"] - 1.0
+    change = wide["clift_gauvin"] / wide["stokes"] - 1.0
     assert (change <= 0).all()                              # drag never settles faster
     assert change.min() < -0.01                            # the coarse sea salt moves
 
@@ -314,10 +314,10 @@ def test_drag_in_blocks_is_drag_in_one_call():
     rh, us, ra = (rng.uniform(lo, hi, shape) for lo, hi in ((0.3, 1.0), (0.05, 1.5), (5.0, 300.0)))
     modes = (LogNormalMode(5e-6, 2.0, 2165.0, "sea_salt"), LogNormalMode(5e-6, 2.0, 2600.0, "none"))
     land = np.array(["grass", "conifer_forest", "water"], dtype=object)[None, :, None]
-    whole = p.mass_weighted_velocities(modes, rh, us, ra, T, P, land, 1.0, 0.0, settling="drag")
+    whole = p.mass_weighted_velocities(modes, rh, us, ra, T, P, land, 1.0, 0.0, settling="clift_gauvin")
     for i in range(shape[0]):
         part = p.mass_weighted_velocities(modes, rh[i:i + 1, :, :2000], us[i:i + 1, :, :2000],
                                           ra[i:i + 1, :, :2000], T, P, land, 1.0, 0.0,
-                                          settling="drag")
+                                          settling="clift_gauvin")
         for w, q in zip(whole, part):
             np.testing.assert_allclose(w[i:i + 1, :, :2000], q, rtol=1e-14)

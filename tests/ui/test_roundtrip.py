@@ -30,7 +30,7 @@ MODEL = {
     "dry.wetness_rule": "always_wet", "dry.seasonal_category": 2,
     "site.roughness_length_m": 0.7, "particles.fine_mmd": 0.6, "particles.coarse_mmd": 8.0,
     "particles.pSO4.fine_fraction": 0.8, "particles.pNO3.fine_fraction": 0.2,
-    "particles.pNH4.fine_fraction": 0.9, "dry.particle_settling": "drag",
+    "particles.pNH4.fine_fraction": 0.9, "dry.particle_settling": "clift_gauvin",
     "budget.pair_split": "all_particle",
     "dry.nh3_treatment": "bidirectional",
 }

@@ -192,7 +192,7 @@ class DryOptions:
     particle_settling : str
         Terminal settling velocity v_g of the particle scheme. ``"stokes"`` (default):
         Stokes' law with the slip correction, Zhang et al. (2001) Eq. 2, the published
-        scheme. ``"drag"``: the continuum terminal velocity from the drag correlation of
+        scheme. ``"clift_gauvin"``: the continuum terminal velocity from the drag correlation of
         Clift and Gauvin (1970), valid to Re 2e5, times the same slip correction
         (:mod:`workbench.drydep.settling`), in the settling term and in the Stokes number
         of impaction and rebound alike; it matters for the grown coarse tail (sea salt

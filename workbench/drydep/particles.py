@@ -4,7 +4,7 @@
           R_s = \\frac{1}{\\varepsilon_0 u_* (E_B + E_{IM} + E_{IN}) R_1}
 
 with gravitational settling v_g (Stokes law with the Cunningham slip correction; under
-``[dry] particle_settling = "drag"`` the drag correlation of Clift and Gauvin 1970,
+``[dry] particle_settling = "clift_gauvin"`` the drag correlation of Clift and Gauvin 1970,
 :mod:`workbench.drydep.settling`, in v_g and in St),
 collection by Brownian diffusion E_B = Sc^-gamma, impaction
 E_IM = (St/(alpha + St))^2, interception E_IN = (d_p/A)^2 / 2 and the rebound
@@ -96,7 +96,7 @@ def settling_velocity(diameter, density, temperature, pressure, settling="stokes
     temperature, pressure : array_like
         [K], [Pa]
     settling : str
-        ``"stokes"`` (default; Zhang et al. 2001, Eq. 2) or ``"drag"`` (the drag
+        ``"stokes"`` (default; Zhang et al. 2001, Eq. 2) or ``"clift_gauvin"`` (the drag
         correlation of Clift and Gauvin 1970, :mod:`workbench.drydep.settling`).
 
     Returns
@@ -108,14 +108,14 @@ def settling_velocity(diameter, density, temperature, pressure, settling="stokes
     -----
     .. math:: v_g = \\frac{\\rho_p d_p^2 g C_c}{18\\mu}
 
-    Under ``"drag"`` this is multiplied by
+    Under ``"clift_gauvin"`` this is multiplied by
     :func:`~workbench.drydep.settling.drag_ratio` of Re_S = rho_p d^3 g / (18 mu nu),
     the continuum terminal velocity of the drag correlation over Stokes'.
 
     References
     ----------
     Seinfeld and Pandis (2006), Eq. (9.42); Zhang et al. (2001), Eq. (2); Clift and
-    Gauvin (1970) (``"drag"``).
+    Gauvin (1970) (``"clift_gauvin"``).
     """
     cc = slip_correction(diameter, temperature, pressure)
     mu = dynamic_viscosity(temperature)
@@ -210,7 +210,7 @@ def surface_resistance(diameter, density, ustar, temperature, pressure, land_use
         1 where the surface is wet (no rebound), 0 dry; open water is always wet. [-]
     receptor_dim : str
     settling : str
-        ``"stokes"`` or ``"drag"``: the v_g of the Stokes number
+        ``"stokes"`` or ``"clift_gauvin"``: the v_g of the Stokes number
         (:func:`settling_velocity`).
 
     Returns
@@ -260,7 +260,7 @@ def particle_deposition_velocity(dry_diameter, dry_density, relative_humidity, u
         Growth law (see :func:`wet_diameter`).
     receptor_dim : str
     settling : str
-        ``"stokes"`` or ``"drag"`` (:func:`settling_velocity`).
+        ``"stokes"`` or ``"clift_gauvin"`` (:func:`settling_velocity`).
 
     Returns
     -------
@@ -309,7 +309,7 @@ def mass_weighted_velocity(mode, relative_humidity, ustar, ra, temperature, pres
         Gauss-Hermite nodes.
     receptor_dim : str
     settling : str
-        ``"stokes"`` or ``"drag"`` (:func:`settling_velocity`).
+        ``"stokes"`` or ``"clift_gauvin"`` (:func:`settling_velocity`).
 
     Returns
     -------
@@ -438,7 +438,7 @@ def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, p
     receptor_dim : str
         Name of the receptor dimension (xarray input).
     settling : str
-        ``"stokes"`` (Zhang et al. 2001, Eq. 2) or ``"drag"`` (Clift and Gauvin 1970;
+        ``"stokes"`` (Zhang et al. 2001, Eq. 2) or ``"clift_gauvin"`` (Clift and Gauvin 1970;
         :mod:`workbench.drydep.settling`): v_g in the settling term and in St.
 
     Returns

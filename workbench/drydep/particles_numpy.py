@@ -61,7 +61,7 @@ class ZhangSurface:
     wet : array_like
         [0/1] (NaN unknown)
     settling : str
-        ``"stokes"`` (Zhang et al. 2001, Eq. 2; default) or ``"drag"``: v_g from the
+        ``"stokes"`` (Zhang et al. 2001, Eq. 2; default) or ``"clift_gauvin"``: v_g from the
         drag correlation of :mod:`workbench.drydep.settling`, in the v_g term and in
         the Stokes number alike.
     """
@@ -186,7 +186,7 @@ class ZhangSurface:
         C_c = 1 + (2 lambda/d)(A + B exp(-C d/(2 lambda))),
         v_g = (rho_p d^2 C_c) g/(18 mu) and Sc = nu/D_B = (d/C_c) 3 pi mu nu/(k_B T).
         A test holds the two forms equal (tests/drydep/test_drydep_particles.py).
-        Under ``settling="drag"`` v_g is then multiplied by
+        Under ``settling="clift_gauvin"`` v_g is then multiplied by
         :func:`~workbench.drydep.settling.drag_ratio` of Re_S = v_g d / (C_c nu).
         """
         dw, d2, rho, cc, log_sc, _ = work
@@ -206,7 +206,7 @@ class ZhangSurface:
         vg *= d2
         vg *= cc
         vg *= self.vg_per_rho_d2_cc
-        if self.settling == "drag":   # Stokes' Reynolds number d w_S / nu, w_S = v_g / C_c
+        if self.settling == "clift_gauvin":   # Stokes' Reynolds number d w_S / nu, w_S = v_g / C_c
             vg *= drag_ratio(vg * dw * self.per_nu / cc)
         return vg, log_sc, d2
 

@@ -5,7 +5,7 @@ v_g = rho_p d^2 g C_c / (18 mu), which holds for a particle Reynolds number
 Re = d v / nu below about 0.1.  The grown coarse tail of a sea-salt mode at high
 humidity reaches Re of a few thousand (nodes up to about 1.1 mm), where Stokes' law
 settles several times too fast (docs/methods_dry_particles.md section 10.3).  Under
-``[dry] particle_settling = "drag"`` the continuum terminal velocity comes from the
+``[dry] particle_settling = "clift_gauvin"`` the continuum terminal velocity comes from the
 force balance with a drag coefficient C_D(Re), and is then multiplied by the same slip
 correction:
 
@@ -33,7 +33,7 @@ import numpy as np
 
 #: Values of ``DryOptions.particle_settling``: Stokes' law (Zhang et al. 2001, Eq. 2;
 #: the default) or the drag correlation of :func:`drag_coefficient`.
-SETTLING_RULES = ("stokes", "drag")
+SETTLING_RULES = ("stokes", "clift_gauvin")
 
 #: Clift and Gauvin (1970) coefficients (as quoted by Barati et al. 2014 and fluids
 #: 1.3.1): C_D = 24/Re (1 + A Re^B) + C / (1 + D Re^-E) [-].
