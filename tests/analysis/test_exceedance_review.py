@@ -187,3 +187,30 @@ def test_fallback_to_total_sulfate_is_said_in_the_exceedance_note(tmp_path):
     assert SEA_SALT_FALLBACK in e.loc["beta", "note"]
     assert "sea-salt" not in e.loc["alpha", "note"]
     assert float(e.loc["beta", "ex_acidity_eq_ha_yr"]) > 0
+
+
+def test_median_exceedance_is_of_the_draws_not_the_exceedance_of_the_median():
+    """Draws of S and N across the sloping part (S log-normal around 600, N around
+    1000; the function (950, 357, 1420)): the 50 % column is the median of the draws'
+    exceedances and p the share of draws above 0, by hand; the exceedance of the median
+    deposition is another number (the exceedance is not linear), so neither stands in
+    for the other (scipy.stats.lognorm draws; the quantile is numpy's, common practice)."""
+    import xarray as xr
+    from scipy import stats
+    from workbench.analysis.exceedance import exceedance_probability
+    d = 4001
+    s = stats.lognorm(0.4, scale=600.0).rvs(d, random_state=1)
+    n = stats.lognorm(0.3, scale=1000.0).rvs(d, random_state=2)
+    table = pd.DataFrame({"site": ["alpha"], "receptor": ["grass"], "period": ["2021"],
+                          "cl_max_s_eq_ha_yr": 950.0, "cl_min_n_eq_ha_yr": 357.0,
+                          "cl_max_n_eq_ha_yr": 1420.0, "cl_nut_n_eq_ha_yr": 714.0})
+    draws = xr.Dataset({k: (("draw", "site", "receptor", "period"), v[:, None, None, None])
+                        for k, v in (("s_dep_eq_ha_yr", s), ("n_dep_eq_ha_yr", n))},
+                       coords={"site": ["alpha"], "receptor": ["grass"], "period": ["2021"]})
+    p = exceedance_probability(table, draws).iloc[0]
+    ex, _ = _hand(s, n, 950.0, 357.0, 1420.0)
+    assert p["ex_acidity_eq_ha_yr_p50"] == pytest.approx(np.median(ex), abs=1e-9)
+    assert p["p_exceed_acidity"] == pytest.approx(np.mean(ex > 0), abs=1e-12)
+    assert p["ex_nutrient_n_eq_ha_yr_p50"] == pytest.approx(np.median(np.maximum(n - 714, 0)))
+    of_median, _ = _hand(np.median(s), np.median(n), 950.0, 357.0, 1420.0)
+    assert abs(float(of_median) - np.median(ex)) > 10.0       # not the same figure
