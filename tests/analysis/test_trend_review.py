@@ -150,3 +150,30 @@ def test_network_table_does_not_call_a_valid_trend_without_percent_not_valid():
     trends["valid"] = False
     assert site_summary(span, cat, 2, trends).set_index("site").loc[
         "a", "S trend [% per yr]"] == "not valid"
+
+
+def test_figure_band_pivots_on_the_years_used():
+    """The Sen slope's band is drawn through (median year, median value) of the values
+    the trend used (trend_spec's docstring; common practice).  2010-2021 falling by
+    about 0.5 a year, 2019-2021 partial (left out): the pivot is (2014, 18.0), the
+    median year and value of 2010-2018, so at 2010 the band spans 18 + 4 x 0.45 = 19.8
+    to 18 + 4 x 0.6333 = 20.533 (hand-worked from the row's slopes).  It pivoted on the
+    median of every year with a value (2015.5), partial years included."""
+    from workbench.ui.figures_analysis import trend_spec
+    years = np.arange(2010, 2022)
+    x = 20 - 0.5 * (years - 2010) + np.array([.3, -.2, .4, -.1, 0, .2, -.3, .1, -.2, .3,
+                                               -.1, .2])
+    status = np.array(["complete"] * 12, dtype=object)
+    status[[9, 10, 11]] = "partial"
+    rows = _rows(x, years, status)
+    row = _all(trend_table(rows)).to_dict()
+    assert row["n_years"] == 9
+    lo, hi = row["slope_low_per_yr"], row["slope_high_per_yr"]
+    assert (lo, hi) == pytest.approx((-0.63333333, -0.45))
+    spec = trend_spec(years, x, row, status)
+    band = next(d for d in spec["data"] if d.get("name") == "confidence band of the slope")
+    at_2010 = sorted(y for t, y in zip(band["x"], band["y"]) if t == 2010)
+    assert at_2010 == pytest.approx([18.0 - 4 * hi, 18.0 - 4 * lo])
+    # the Sen line itself passes through the same point
+    line = next(d for d in spec["data"] if str(d.get("name", "")).startswith("Sen slope"))
+    assert np.interp(2014, line["x"], line["y"]) == pytest.approx(18.0)
