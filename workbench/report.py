@@ -185,8 +185,11 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES, network=False)
             & (t["receptor"] == t["site"].map(own))]
     out = ["<h2>Trends of the annual totals (Mann-Kendall, Sen slope)</h2>",
            f"<p>A trend is valid with at least {MIN_YEARS} complete years; the band is the "
-           "95 % confidence interval of the slope. trends.csv has every component, the "
-           "seasonal Kendall test on monthly values and the notes.</p>"]
+           "95 % confidence interval of the slope. The slope in % per yr is relative to "
+           "the median of the years used (the Sen line's level in the middle of the "
+           "series), not to the first year; where that median is 0 or a value is below 0 "
+           "there is no percent, and the note says why. trends.csv has every component, "
+           "the seasonal Kendall test on monthly values and the notes.</p>"]
     tr = trend_table(tot, changes=change_notes(cat, study.inputs))
     if tr.empty:
         return out + ["<p>No annual totals.</p>"], first

@@ -177,3 +177,11 @@ def test_figure_band_pivots_on_the_years_used():
     # the Sen line itself passes through the same point
     line = next(d for d in spec["data"] if str(d.get("name", "")).startswith("Sen slope"))
     assert np.interp(2014, line["x"], line["y"]) == pytest.approx(18.0)
+
+
+def test_report_says_the_base_of_the_percent_slope(analysis_run):
+    """report.html's trend table had "Sen slope [% per yr]" and no word of its base
+    (the median of the years used, docs/methods_analysis.md)."""
+    out, _, _ = analysis_run
+    html = (out / "report.html").read_text(encoding="utf-8")
+    assert "relative to the median of the years used" in html
