@@ -130,6 +130,11 @@ def test_kg_to_eq_from_periodictable_molar_masses():
         assert eq == pytest.approx(eq_per_mol * 1000.0 / mass, rel=1e-6)
     assert 2000.0 / pt.S.mass == pytest.approx(62.4, abs=0.05)
     assert 1000.0 / pt.N.mass == pytest.approx(71.4, abs=0.05)
+    # critical loads given in kg/ha/yr in sites.toml: kg S for CLmaxS, kg N for the rest
+    from workbench.io.critical_loads import unit_factor
+    assert unit_factor("kg/ha/yr", "cl_max_s") == pytest.approx(2000.0 / pt.S.mass, rel=1e-6)
+    for key in ("cl_min_n", "cl_max_n", "cl_nut_n"):
+        assert unit_factor("kg/ha/yr", key) == pytest.approx(1000.0 / pt.N.mass, rel=1e-6)
 
 
 # ------------------------------------------------------------------ the table's notes
