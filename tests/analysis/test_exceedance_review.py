@@ -219,3 +219,15 @@ def test_median_exceedance_is_of_the_draws_not_the_exceedance_of_the_median():
     assert p["ex_nutrient_n_eq_ha_yr_p50"] == pytest.approx(np.median(np.maximum(n - 714, 0)))
     of_median, _ = _hand(np.median(s), np.median(n), 950.0, 357.0, 1420.0)
     assert abs(float(of_median) - np.median(ex)) > 10.0       # not the same figure
+
+
+def test_a_filled_total_is_named_in_the_note():
+    """Status ``filled`` (a gap of a total filled, e.g. a gauge depth) had an empty note:
+    the demo's farm, 2019, read "filled" and nothing said which total.  Now the note
+    names it, as it names a flagged or partial one."""
+    t = _totals([("2019", 600.0, 900.0), ("2020", 600.0, 900.0)])
+    t.loc[0, "n_status"] = "filled"
+    r = exceedance_from_totals(t, _catalogue()).set_index("period")
+    assert r.loc["2019", "status"] == "filled" and "N total filled" in r.loc["2019", "note"]
+    assert "S total" not in r.loc["2019", "note"]
+    assert r.loc["2020", "status"] == "complete" and r.loc["2020", "note"] == ""

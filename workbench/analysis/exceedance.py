@@ -300,7 +300,8 @@ def _status(frame: pd.DataFrame):
         s = frame[f"{el}_status"].astype(str).reset_index(drop=True)
         m = frame[f"{el}_missing"].astype(str).reset_index(drop=True)
         text = f"{el.upper()} total " + s + np.where(m != "", " (without " + m + ")", "")
-        notes.append(text.where(s.isin(["partial", "flagged", "missing"]), ""))
+        # a filled total is named too: the row's status "filled" had an empty note
+        notes.append(text.where(s.isin(["partial", "flagged", "missing", "filled"]), ""))
     return status, _join(*notes)
 
 
