@@ -130,8 +130,8 @@ def _exceedance_html(result, study, network=False, ex=None) -> list:
     from .analysis.exceedance import REGIONS, exceedance_table
     if ex is None:
         ex = exceedance_table(result, study.catalogue())
-    out = ["<h2>Critical-load exceedance: mean of the years that pass completeness "
-           "[eq/ha/yr]</h2>"]
+    out = ["<h2>Critical-load exceedance of the mean deposition of the years that pass "
+           "completeness [eq/ha/yr]</h2>"]
     span = ex[ex["period"] == "span"]
     if span.empty:
         if len(ex):
@@ -143,8 +143,10 @@ def _exceedance_html(result, study, network=False, ex=None) -> list:
                "deposition above CLnutN. Regions: "
                + "; ".join(f"{k} {html.escape(v)}" for k, v in REGIONS.items()
                            if k >= 0 or (span["region"] == k).any())
-               + ". Every year, the loads used and the notes are in exceedance.csv; critical "
-               "loads carry their own uncertainty.</p>")
+               + ". The exceedance is not linear in the deposition: that of the mean "
+               "deposition is not the mean of the years' exceedances (a year can exceed "
+               "where the mean deposition does not). Every year, the loads used and the "
+               "notes are in exceedance.csv; critical loads carry their own uncertainty.</p>")
     cols = ["site", "receptor", "s_dep_eq_ha_yr", "n_dep_eq_ha_yr", "ex_acidity_eq_ha_yr",
             "region", "ex_nutrient_n_eq_ha_yr", "status", "note"]
     drawn = ["p_exceed_acidity", "ex_acidity_eq_ha_yr_p05", "ex_acidity_eq_ha_yr_p95",
@@ -183,8 +185,11 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES, network=False)
             & (t["receptor"] == t["site"].map(own))]
     out = ["<h2>Trends of the annual totals (Mann-Kendall, Sen slope)</h2>",
            f"<p>A trend is valid with at least {MIN_YEARS} complete years; the band is the "
-           "95 % confidence interval of the slope. trends.csv has every component, the "
-           "seasonal Kendall test on monthly values and the notes.</p>"]
+           "95 % confidence interval of the slope. The slope in % per yr is relative to "
+           "the median of the years used (the Sen line's level in the middle of the "
+           "series), not to the first year; where that median is 0 or a value is below 0 "
+           "there is no percent, and the note says why. trends.csv has every component, "
+           "the seasonal Kendall test on monthly values and the notes.</p>"]
     tr = trend_table(tot, changes=change_notes(cat, study.inputs))
     if tr.empty:
         return out + ["<p>No annual totals.</p>"], first

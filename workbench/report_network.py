@@ -81,13 +81,18 @@ def site_summary(span: pd.DataFrame, catalogue, n_periods: int, trends=None,
                     t = tr.iloc[0]
                     pct = t.get("sen_slope_pct_per_yr")
                     ok = bool(t.get("valid"))
+                    # a valid trend without a percent (median 0, a value below 0)
+                    # read "not valid"; trends.csv's note says why there is no percent
                     row[f"{el} trend [% per yr]"] = (
                         f"{pct:+.1f}" + ("" if ok else " (not valid)")
-                        if pct is not None and np.isfinite(pct) else "not valid")
+                        if pct is not None and np.isfinite(pct)
+                        else "no percent (trends.csv says why)" if ok else "not valid")
         if exceedance is not None:
             ex = exceedance[exceedance["site"] == site]
             if len(ex):
-                row["acidity exceedance [eq/ha/yr]"] = ex.iloc[0]["ex_acidity_eq_ha_yr"]
+                # of the span's mean deposition, not the mean of the years' exceedances
+                row["acidity exceedance of the mean deposition [eq/ha/yr]"] = \
+                    ex.iloc[0]["ex_acidity_eq_ha_yr"]
         rows.append(row)
     own = {s.id: s.land_use for s in catalogue}
     done = {r["site"] for r in rows}

@@ -250,7 +250,10 @@ def annual_totals(result) -> pd.DataFrame:
     -------
     DataFrame
         site, receptor, period, ``s_dep_eq_ha_yr``, ``n_dep_eq_ha_yr`` [eq ha-1 yr-1],
-        ``s_status``, ``n_status``, ``s_missing``, ``n_missing``.
+        ``s_status``, ``n_status``, ``s_missing``, ``n_missing`` and ``s_basis``
+        (budget.csv's ``sulfate_basis`` of the wet S sum: ``total`` where the wet S
+        holds total SO4, sea salt included, e.g. a period whose non-sea-salt mean fell
+        back for want of the sea-salt tracer; ``""`` where not known).
     """
     from ..tables import budget_table, span_table
     if result.options.get("resolution", "year") == "year":
@@ -267,7 +270,18 @@ def annual_totals(result) -> pd.DataFrame:
         parts.append(pd.DataFrame({f"{el.lower()}_dep_eq_ha_yr": e["flux_eq_ha_yr"],
                                    f"{el.lower()}_status": e["status"],
                                    f"{el.lower()}_missing": miss.fillna("").astype(str)}))
-    return pd.concat(parts, axis=1).reset_index()
+    out = pd.concat(parts, axis=1).reset_index()
+    # which sulfate the S total holds (the wet S sum's label; the dry pSO4 follows the
+    # same basis): a row on the nss basis whose wet SO4 fell back to total SO4 had only
+    # "S total flagged" in exceedance.csv, while its exceedance counts sea-salt sulfate
+    out["s_basis"] = ""
+    if "sulfate_basis" in rows:
+        wet = rows[(rows["pathway"] == "wet") & (rows["species"] == "all")
+                   & (rows["element"] == "S")].drop_duplicates(keys).set_index(keys)
+        basis = wet["sulfate_basis"].fillna("").astype(str)
+        out["s_basis"] = basis.reindex(pd.MultiIndex.from_frame(out[keys])).fillna(
+            "").to_numpy(dtype=object)
+    return out
 
 
 def _join(*notes) -> np.ndarray:
@@ -286,7 +300,8 @@ def _status(frame: pd.DataFrame):
         s = frame[f"{el}_status"].astype(str).reset_index(drop=True)
         m = frame[f"{el}_missing"].astype(str).reset_index(drop=True)
         text = f"{el.upper()} total " + s + np.where(m != "", " (without " + m + ")", "")
-        notes.append(text.where(s.isin(["partial", "flagged", "missing"]), ""))
+        # a filled total is named too: the row's status "filled" had an empty note
+        notes.append(text.where(s.isin(["partial", "flagged", "missing", "filled"]), ""))
     return status, _join(*notes)
 
 
@@ -354,6 +369,17 @@ def not_determined(exceedance, lower_bound):
     return np.asarray(lower_bound, bool) & (np.asarray(exceedance, float) == 0)
 
 
+#: The note of a row whose S includes sea-salt sulfate: the whole run on the total
+#: basis, or (nss basis) a wet S that fell back to total SO4 for want of the tracer.
+SEA_SALT_TOTAL = "S includes sea-salt sulfate (sulfate_basis = total)"
+SEA_SALT_FALLBACK = ("S includes sea-salt sulfate (the non-sea-salt SO4 fell back to total "
+                     "SO4 for want of the sea-salt tracer; budget.csv's sulfate_basis and "
+                     "note say where): the exceedance counts sea salt")
+#: The note of a span row: the exceedance is not linear in the deposition, so that of the
+#: mean deposition is not the mean of the years' exceedances (a report's "mean" read so).
+SPAN_NOTE = ("exceedance of the mean deposition of the years used, not the mean of the "
+             "years' exceedances")
+
 #: The note of a receptor without any critical load (its rows in exceedance.csv).
 NO_CRITICAL_LOADS = ("no critical loads for this receptor in sites.toml (neither "
                      "[site.critical_loads] nor [site.critical_loads.<receptor>]): "
@@ -398,7 +424,10 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
     catalogue : workbench.io.sites.SiteCatalogue
         The sites with their critical loads [eq ha-1 yr-1].
     sulfate_basis : str
-        ``"nss"`` or ``"total"`` (noted: S then includes sea-salt sulfate).
+        ``"nss"`` or ``"total"`` (noted: S then includes sea-salt sulfate).  On the nss
+        basis a row whose ``s_basis`` (:func:`annual_totals`) is ``total`` (the wet SO4
+        fell back to total SO4 for want of the sea-salt tracer) says so in its note too
+        (:data:`SEA_SALT_FALLBACK`; before, only "S total flagged").
 
     Returns
     -------
@@ -415,6 +444,9 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
         a positive exceedance is then a lower bound too ("at least"), and an exceedance
         of 0 is not determined (NaN, region -1), as the full deposition may exceed.
         A negative total (net emission, e.g. of NH3) gives no exceedance (NaN, region -1).
+        A span row's note says that its exceedance is that of the mean deposition
+        (:data:`SPAN_NOTE`): the exceedance is not linear in the deposition, so the mean
+        of the years' exceedances can be larger (a year exceeded, the mean deposition not).
     """
     t = totals
     loads = pd.DataFrame([
@@ -446,7 +478,11 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
     t["n_reduction_eq_ha_yr"] = np.where(acid_undetermined, np.nan, ex.n_reduction)
     t["status"], note = _status(t)
     t["status"] = np.where(none, "missing", t["status"])
-    sea = "S includes sea-salt sulfate (sulfate_basis = total)" if sulfate_basis == "total" else ""
+    fell_back = (t["s_basis"].fillna("").astype(str).eq("total").to_numpy()
+                 if "s_basis" in t else np.zeros(len(t), bool))
+    sea = np.where(np.full(len(t), sulfate_basis == "total"), SEA_SALT_TOTAL,
+                   np.where(fell_back, SEA_SALT_FALLBACK, ""))
+    span = t["period"].astype(str).eq("span").to_numpy()
     no_acid = np.where(t[list(ACIDITY_KEYS)].isna().any(axis=1) & ~none,
                        "no complete acidity function", "")
     t["_borrowed"] = np.where(none, "", t["_borrowed"].fillna(""))
@@ -465,8 +501,8 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
                             ""), und)
     note = _join(pd.Series(np.where(none, NO_CRITICAL_LOADS, ""), dtype=object),
                  note, pd.Series(bound, dtype=object), pd.Series(net_note, dtype=object),
-                 pd.Series([sea] * len(t), dtype=object), pd.Series(no_acid, dtype=object),
-                 t["_borrowed"])
+                 pd.Series(sea, dtype=object), pd.Series(no_acid, dtype=object),
+                 t["_borrowed"], pd.Series(np.where(span & ~none, SPAN_NOTE, ""), dtype=object))
     t["note"] = note
     t = t.rename(columns={k: f"{k}_eq_ha_yr" for k in ACIDITY_KEYS + (NUTRIENT_KEY,)})
     extra = [f"{k}_eq_ha_yr" for k in ACIDITY_KEYS + (NUTRIENT_KEY,)] + [

@@ -401,13 +401,18 @@ SERIAL_CORRECTIONS = (None, "hamed_rao")
 #: Why a row has no test or no percent slope (notes of trends.csv).
 NO_TEST = "all values equal (Var S = 0): no test"
 NO_PERCENT = "values below 0 (net emission): no percent slope"
+#: The base of the percent slope is the median of the values used: a median of 0 (most
+#: years 0) leaves the percent empty, and the note says why (it was empty without a word).
+NO_PERCENT_ZERO = "median of the values 0: no percent slope (its base)"
 GAP = "no row for {}"
 
 
-def _flags(n, var_s, vmin, gaps=""):
-    """The reasons of :data:`NO_TEST` and :data:`NO_PERCENT` for one row."""
+def _flags(n, var_s, vmin, gaps="", median=np.nan):
+    """The reasons of :data:`NO_TEST`, :data:`NO_PERCENT` and :data:`NO_PERCENT_ZERO`
+    for one row."""
     return (NO_TEST if n >= 2 and var_s == 0 else "",
-            NO_PERCENT if np.isfinite(vmin) and vmin < 0 else "", gaps)
+            NO_PERCENT if np.isfinite(vmin) and vmin < 0 else
+            NO_PERCENT_ZERO if median == 0 else "", gaps)
 
 
 def _row(key, series, variant, years, r, min_years, median, excluded, dl, vmin=np.nan,
@@ -422,7 +427,7 @@ def _row(key, series, variant, years, r, min_years, median, excluded, dl, vmin=n
             "tau": r.tau, "p_value": r.p_value, "sen_slope_per_yr": r.slope,
             "sen_slope_pct_per_yr": pct, "valid": bool(valid),
             "note": _note(variant, r.n < min_years, min_years, excluded, dl,
-                          _flags(r.n, r.var_s, vmin, gaps)),
+                          _flags(r.n, r.var_s, vmin, gaps, median)),
             "values": variant, "s": r.s, "var_s": r.var_s, "z": r.z,
             "slope_low_per_yr": r.slope_low, "slope_high_per_yr": r.slope_high,
             "intercept": r.intercept, "unit": "kg ha-1 yr-1", "method_changes": ""}
@@ -482,9 +487,11 @@ def _table_rows(keys, series, stats_by_variant, min_years, excluded, dl, gaps=No
     dl_rep = np.repeat(np.asarray(dl, dtype=object), len(variants))
     gap_rep = np.repeat(np.asarray(gaps if gaps is not None else [""] * n_keys, dtype=object),
                         len(variants))
-    notes = [_note(va, few, min_years, ex, d, _flags(k, v, m, g)) for va, few, ex, d, k, v, m, g
+    notes = [_note(va, few, min_years, ex, d, _flags(k, v, m, g, md))
+             for va, few, ex, d, k, v, m, g, md
              in zip(variant.tolist(), (n < min_years).tolist(), exc.tolist(), dl_rep.tolist(),
-                    n.tolist(), st["var_s"].tolist(), st["min"].tolist(), gap_rep.tolist())]
+                    n.tolist(), st["var_s"].tolist(), st["min"].tolist(), gap_rep.tolist(),
+                    st["median"].tolist())]
     med = st["median"]
     with np.errstate(invalid="ignore", divide="ignore"):
         pct = np.where(np.isfinite(med) & (med != 0) & ~(st["min"] < 0),

@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..analysis.trends import VARIANTS
 from ..analysis.whatif import percent_up
 from .figures import LEGEND_LINE_PX, TITLE_CHARS, from_spec, wrap_text
 from .palette import ENVELOPE_FILL, OKABE_ITO, TEMPLATE
@@ -191,7 +192,12 @@ def trend_spec(years, values, row=None, status=None, title="", unit="kg/ha/yr") 
     if row is not None and np.isfinite(_num(row.get("sen_slope_per_yr"))):
         slope, icpt = float(row["sen_slope_per_yr"]), float(row["intercept"])
         ends = np.array([np.nanmin(t), np.nanmax(t)])
-        ok = np.isfinite(x)
+        # the band's pivot is the median year of the values the trend used (the row's
+        # variant: complete, or complete and filled): with every year that has a value,
+        # a flagged or partial year left out of the trend moved the pivot off it
+        used = VARIANTS.get(str(row.get("values", "all")), VARIANTS["all"])
+        ok = np.isfinite(x) & np.isin(st.astype(str), used)
+        ok = ok if ok.any() else np.isfinite(x)
         tm = float(np.median(t[ok])) if ok.any() else float(np.mean(ends))
         xm = icpt + slope * tm
         lo, hi = (_num(row.get(k)) for k in ("slope_low_per_yr", "slope_high_per_yr"))
