@@ -16,7 +16,7 @@ from scipy import stats
 
 from analysis.tiny_site import OFF
 from workbench.analysis import noise as N
-from workbench.analysis import pairdraws as PD
+from workbench.analysis import pairnoise as PN
 from workbench.analysis import uncertainty as U
 from workbench.analysis.layer import linear_layer
 from workbench.budget import COMPONENTS
@@ -75,6 +75,7 @@ def _draws(study, res, opt, n_years=1):
     ds = lay.budget
     noise = U.site_noise(lay.sites[0], opt, opt.draws, n_years, 1, (opt.seed, "quill"), 2021,
                          (ds["period_start"].values, ds["period_end"].values))
+    PN.with_pair_shift(noise, lay.sites[0], opt, (opt.seed, "quill"), n_years, 2021)
     r = list(ds["receptor"].values).index("grass")
     return U.component_draws(lay, 0, noise, 2021)[:, r, 0], noise, lay
 
@@ -156,15 +157,15 @@ def test_the_share_is_systematic_per_site_shared_or_each_year(pairs):
     ls = lay.sites[0]
     opt = U.UncertaintyOptions(draws=50, seed=9, pair_shift_nitrate=[-0.5, 0.5])
     key = N._stream_key((9, "quill"))
-    shared = PD.pair_shift_draws(ls, opt, key, 50, 3, 2020)["nitrate"].share
+    shared = PN.pair_shift_draws(ls, opt, key, 50, 3, 2020)["nitrate"].share
     assert np.array_equal(shared[:, 0], shared[:, 2])
-    each = PD.pair_shift_draws(ls, dataclasses.replace(opt, systematic_errors="each_year"),
+    each = PN.pair_shift_draws(ls, dataclasses.replace(opt, systematic_errors="each_year"),
                                key, 50, 3, 2020)["nitrate"].share
     assert not np.array_equal(each[:, 0], each[:, 1])
     # another site, another stream; the years of the run do not change a year's draw
-    other = PD.pair_shift_draws(ls, opt, N._stream_key((9, "fell")), 50, 3, 2020)
+    other = PN.pair_shift_draws(ls, opt, N._stream_key((9, "fell")), 50, 3, 2020)
     assert not np.array_equal(other["nitrate"].share[:, 0], shared[:, 0])
-    later = PD.pair_shift_draws(ls, dataclasses.replace(opt, systematic_errors="each_year"),
+    later = PN.pair_shift_draws(ls, dataclasses.replace(opt, systematic_errors="each_year"),
                                 key, 50, 2, 2021)["nitrate"].share
     np.testing.assert_array_equal(later[:, 0], each[:, 1])
 

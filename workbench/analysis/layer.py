@@ -126,7 +126,7 @@ class SiteLayer:
     #: period holding the change is redrawn with the samples); None otherwise
     bulk_beta: np.ndarray | None = None
     #: pair -> species moved into -> DryPieces of the other member at its Vd, for a
-    #: drawn gas/particle split (:func:`workbench.analysis.pairdraws.moved_pieces`)
+    #: drawn gas/particle split (:func:`workbench.analysis.pairlayer.moved_pieces`)
     pair_moved: dict = field(default_factory=dict)
 
 
@@ -516,8 +516,8 @@ def linear_layer(result, study, which: str = "budget", overrides=None,
                         bulk[k], piece_betas(raw, wet_pieces[k]) if bulk[k] else None)
               for k, s in enumerate(sites)]
     if pair_shift:
-        from .pairdraws import moved_pieces
+        from .pairlayer import moved_pieces
         for lay, moved in zip(layers, moved_pieces(rows, periods, sites, ds.sizes["receptor"],
-                                                   study.inputs.air, histories)):
+                                                   study.inputs.air, histories, _dry_layers)):
             lay.pair_moved = moved
     return LinearLayer(ds, layers, period_years(periods), wet_component, tracer)

@@ -21,6 +21,7 @@ from ..budget import COMPONENTS
 from ..units import element_deposition_in
 from .layer import linear_layer
 from .noise import site_noise
+from .pairnoise import with_pair_shift
 from .quantile_tables import QUANTILES, TOTALS
 from .sitedraws import component_draws, totals_of
 from .uncertainty_options import UncertaintyOptions
@@ -149,9 +150,11 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
         tot_q = {name: np.full((len(q), n_s, n_r, n_p), np.nan)
                  for name in TOTALS + ("oxidized_N", "reduced_N", "potential_acidity")}
         for k in range(n_s):
-            noise = site_noise(lay.sites[k], options, options.draws, n_years, n_p,
-                               (options.seed, str(ds["site"].values[k])), year0,
+            key = (options.seed, str(ds["site"].values[k]))
+            noise = site_noise(lay.sites[k], options, options.draws, n_years, n_p, key, year0,
                                (ds["period_start"].values, ds["period_end"].values))
+            if options.shifts_pairs:
+                with_pair_shift(noise, lay.sites[k], options, key, n_years, year0)
             bulk_drawn |= noise.bulk is not None
             gamma_drawn |= noise.nh3_gamma is not None
             shift_drawn.update(noise.pair_shift or ())

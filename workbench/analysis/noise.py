@@ -70,8 +70,9 @@ class SiteNoise:
     #: net NH3 exchange (``nh3_gamma_gsd`` > 1 and a site with a bidirectional
     #: emission; None: not drawn)
     nh3_gamma: dict | None = None
-    #: pair -> :class:`.pairdraws.PairShift`, the drawn gas/particle split of a filter
-    #: pack's pair (``pair_shift_<pair>``; None: not drawn)
+    #: pair -> :class:`.pairnoise.PairShift`, the drawn gas/particle split of a filter
+    #: pack's pair (``pair_shift_<pair>``, :func:`.pairnoise.with_pair_shift`; None: not
+    #: drawn)
     pair_shift: dict | None = None
 
 
@@ -512,11 +513,9 @@ def site_noise(layer_site, opt, n_draws: int, n_years: int, n_periods: int,
     sd_bulk = float(getattr(opt, "bulk_factor_rel_sd", 0.0))
     if sd_bulk > 0 and getattr(layer_site, "bulk_part", None):
         bulk = bulk_factors(opt, key, sd_bulk, d, n_years, year0)
-    from .pairdraws import pair_shift_draws
     return SiteNoise(vd, gauge, depth, pconc, air, vd_fill, pwm_fill, gauge_periods, vd_class,
                      lab_precip, lab_air, bulk, vd_site, air_ss,
-                     nh3_gamma_factors(layer_site, opt, key, d, n_years, year0),
-                     pair_shift_draws(layer_site, opt, key, d, n_years, year0))
+                     nh3_gamma_factors(layer_site, opt, key, d, n_years, year0))
 
 
 def nh3_gamma_factors(layer_site, opt, key, d, n_years, year0):

@@ -23,102 +23,19 @@ the Vd it is deposited with.  Both members are in mol of N (one N atom each).  T
 shift is applied where both members of the pair have a deposition at the site and
 period; elsewhere the components stay as drawn without it.
 
+The shares are drawn in :mod:`.pairnoise`, the moved rows built in :mod:`.pairlayer`.
 Units: deposition [mol m-2], shares and factors [1].
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 from ..budget import COMPONENTS, PAIRS
-from ..budgetstatus import bracket_velocities
+from .drydraws import dry_ratio
 
-#: Tag of a site's drawn gas/particle share (after the site's key, with the pair), next
-#: to the tags of :mod:`.noise`.
-PAIR_SHIFT = 12
-
-
-@dataclass
-class PairShift:
-    """The drawn share of one pair at one site.
-
-    ``share`` (D, Y) the signed share s [1] (> 0: of the particle to the gas; < 0: of
-    the gas to the particle); ``fill`` species moved into -> (D, n) relative errors of
-    the filled Vd hours of the moved rows (the stream ``vd_fill:<species>`` of each
-    sample, as under ``pair_split``) [1]."""
-
-    share: np.ndarray
-    fill: dict
-
-
-def moved_pieces(rows, periods, sites, n_r, air, histories=None) -> list:
-    """The other member's rows at the Vd of each member, per site.
-
-    Parameters
-    ----------
-    rows : dict
-        :func:`workbench.drycomponents.dry_rows` of the run (its ``"bracket"``).
-    periods, sites, n_r, air, histories
-        As for :func:`workbench.analysis.layer._dry_layers`.
-
-    Returns
-    -------
-    list of dict
-        Per site: pair -> species moved into -> :class:`~.layer.DryPieces` of the
-        other member's samples deposited with that species' Vd [mol m-2 of N], their
-        identities those of the samples' own member.  None for a pair that
-        ``pair_split`` already moves (its split is set there) or without a bracket.
-    """
-    from .layer import _dry_layers
-    out = [dict() for _ in sites]
-    if rows is None:
-        return out
-    split = rows.get("split", {})
-    for pair, (gas, part) in PAIRS.items():
-        if pair in split:
-            continue
-        for how, into in bracket_velocities((gas, part)).items():
-            other = part if into == gas else gas
-            r = rows["bracket"].get((pair, how), {}).get(other)
-            if r is None or into not in rows["vd_cum"]:
-                continue
-            sub = {k: v for k, v in rows.items() if k != "nh3_exchange"}
-            sub.update(split={}, species={into: r})
-            for k, lay in enumerate(_dry_layers(sub, periods, sites, n_r, air, histories)):
-                p = lay.get(into)
-                if p is not None:
-                    p.ident = [(other,) + tuple(i[1:]) for i in p.ident]
-                    out[k].setdefault(pair, {})[into] = p
-    return out
-
-
-def pair_shift_draws(layer_site, opt, key, d, n_years, year0):
-    """The site's drawn shares: pair -> :class:`PairShift`, or None (none drawn).
-
-    A pair is drawn where its range is not [0, 0], both members have rows at the site
-    and the moved rows were built (:func:`moved_pieces`; not under ``pair_split``
-    other than ``"measured"``).  The share is uniform on the range, from the stream of
-    the site, tag :data:`PAIR_SHIFT` and the pair (one per calendar year under
-    ``"each_year"``, :func:`workbench.analysis.noise._site_factor`)."""
-    from .noise import _site_factor, _stream_key, keyed_normal_factor
-    moved = getattr(layer_site, "pair_moved", None) or {}
-    out = {}
-    for pair, (gas, part) in PAIRS.items():
-        lo, hi = opt.pair_shift(pair) if hasattr(opt, "pair_shift") else (0.0, 0.0)
-        m = moved.get(pair, {})
-        if (lo, hi) == (0.0, 0.0) or not m or gas not in layer_site.dry \
-                or part not in layer_site.dry:
-            continue
-        share = _site_factor(opt, key, [PAIR_SHIFT] + _stream_key((pair,)), d, n_years,
-                             year0, lambda r: r.uniform(lo, hi, d))
-        fill = {}
-        for into, p in m.items():
-            sd = np.where((p.filled > 0).any(axis=(1, 2)), opt.vd_fill_rel_sd, 0.0)
-            fill[into] = keyed_normal_factor(key, f"vd_fill:{into}", p.ident, sd, d) - 1.0
-        out[pair] = PairShift(share, fill)
-    return out or None
-
+#: Dry species of the budget (:data:`workbench.analysis.layer.DRY_SPECIES`, not
+#: imported: the layer imports :mod:`.pairlayer`, the noise the layer).
+DRY_SPECIES = tuple(c[2] for c in COMPONENTS if c[1] == "dry")
 
 def row_shares(share, start, end, year0) -> np.ndarray:
     """(D, n) the share of each row's sample [1] from `share` (D, Y): that of the
@@ -140,8 +57,6 @@ def apply_pair_shift(layer, site, noise, year0, out, draw):
     (:func:`workbench.analysis.sitedraws.dry_draws`): the source member's are scaled by
     1 - |s| sample by sample, so its every path (a net NH3 exchange's deposition part
     too) loses the share."""
-    from .drydraws import dry_ratio
-    from .layer import DRY_SPECIES
     shifts = getattr(noise, "pair_shift", None)
     if not shifts:
         return out

@@ -150,18 +150,25 @@ class UncertaintyOptions:
         the scatter in Massad et al. 2010, ACP 10, 10359: :data:`DEFAULT_NH3_GAMMA_GSD`);
         1 switches it off.  Not drawn, and not named as drawn, where no site has an
         emission part.
-    pair_shift_nitrate, pair_shift_ammonium : tuple
-        ``[low, high]``: the range of the drawn share s of a filter pack's gas/particle
-        split that was measured in the wrong phase [1], uniform on the range, one draw
-        per site (by its id and the pair), shared by its years (``"each_year"``: per
-        site and calendar year).  s > 0: a share s of the measured particle member
-        (pNO3, pNH4) was gas, and is deposited with the gas's Vd; s < 0: a share -s of
-        the measured gas (HNO3, NH3) was particle, deposited with the particle's Vd
-        (the moved rows are the bracket's, :mod:`.pairdraws`).  -1 <= low <= high <= 1;
-        [0, 0] (default) switches it off, and the draws stay as they were.  Under
-        ``[budget] pair_split`` other than ``"measured"`` not drawn (the split is set
-        there).  Ranges from memory: docs/methods_uncertainty.md, "The gas/particle
-        split of a filter pack".
+    pair_shift_nitrate : tuple
+        ``[low, high]``: the range of the drawn share s of the nitrate pair's
+        gas/particle split that a filter pack measured in the wrong phase [1], uniform
+        on the range, one draw per site (by its id and the pair), shared by its years
+        (``"each_year"``: per site and calendar year).  s > 0: a share s of the measured
+        pNO3 was gas, and is deposited with the HNO3 Vd; s < 0: a share -s of the
+        measured HNO3 was particle (ammonium nitrate lost from the front filter and
+        caught as gas on the back filter), deposited with the pNO3 Vd (the moved rows
+        are the bracket's, :mod:`.pairdraws`).  -1 <= low <= high <= 1; [0, 0]
+        (default) switches it off, and the draws stay as they were.  Drawn where both
+        members are measured and ``[budget] pair_split = "measured"`` (otherwise the
+        split is set there).  Ranges from memory: docs/methods_uncertainty.md, "The
+        gas/particle split of a filter pack".
+    pair_shift_ammonium : tuple
+        The same for the ammonium pair: s > 0 a share of the measured pNH4 that was NH3
+        (deposited with the NH3 Vd: under ``nh3_treatment = "bidirectional"`` the
+        deposition-only scheme's, as the bracket), s < 0 a share of the measured NH3
+        that was pNH4; drawn apart from the nitrate's (its own stream).  [0, 0]
+        (default) switches it off.
     """
 
     draws: int = 0
