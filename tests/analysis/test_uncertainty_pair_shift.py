@@ -212,3 +212,11 @@ def test_a_bad_range_in_a_scenario_is_located(pairs, tmp_path, text, message):
     line = p.read_text().splitlines().index(text) + 1
     assert message in msg and f"uncertainty.{key}" in msg and str(p) in msg
     assert f"line {line}" in msg
+
+
+def test_the_report_line_names_the_split_only_where_asked():
+    from workbench.analysis import quantile_tables as QT
+    on = U.UncertaintyOptions(draws=10, pair_shift_ammonium=[-0.2, 0.1])
+    assert ('pair_shift_ammonium = [-0.2, 0.1] (the gas/particle split'
+            in QT.draws_in_force(on))
+    assert "pair_shift" not in QT.draws_in_force(U.UncertaintyOptions(draws=10))
