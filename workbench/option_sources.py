@@ -250,6 +250,15 @@ UNCERTAINTY = {
                       "in the review of Massad et al. (2010), Atmos. Chem. Phys. 10, "
                       "10359-10386: about a factor of 3 either way within one kind of "
                       "surface (the classes themselves span tens to thousands)"),
+    "pair_shift_nitrate": ("our choice", "[0, 0]: off, so that a run draws as before; a "
+                           "range for filter packs in warm weather from memory of the "
+                           "ammonium nitrate lost from Teflon front filters (tens of percent "
+                           "of the particle nitrate in summer, Appel et al. 1981, Atmos. "
+                           "Environ. 15, 283; Hering and Cass 1999, J. Air Waste Manage. "
+                           "Assoc. 49, 725) in docs/methods_uncertainty.md"),
+    "pair_shift_ammonium": ("our choice", "[0, 0]: off; the ammonium lost with the "
+                            "nitrate (the same salt) moves NH4+ to NH3 on the back filter, "
+                            "from memory as for pair_shift_nitrate"),
 }
 
 SENSITIVITY = {

@@ -197,10 +197,24 @@ def test_rc_scale_and_nh3_gamma_factors_move_the_dry_totals(tiny, tmp_path):
     assert nh3["output_low"] > nh3["output_base"] > nh3["output_high"]
     assert _row(t, "S", "dry", "rc_scale_NH3")["output_high"] == pytest.approx(
         _row(t, "S", "dry", "rc_scale_NH3")["output_base"], rel=1e-12)
-    # a larger emission potential, a larger compensation point: less net NH3 deposition
-    gam = _row(t, "N", "dry", "nh3_gamma_grass")
-    assert gam["output_high"] < gam["output_low"]
-    assert gam["output_high"] < gam["output_base"]
+    # the scenario's NH3 is deposition-only: Gamma_s has nothing to act on, the factor's
+    # ends are the base and its rows say so (before, the factor switched the
+    # bidirectional model on at its ends only: a bar of another model around a
+    # deposition-only base, with no note)
+    for q in ("dry", "total"):
+        gam = _row(t, "N", q, "nh3_gamma_grass")
+        assert gam["output_low"] == pytest.approx(gam["output_base"], rel=1e-12)
+        assert gam["output_high"] == pytest.approx(gam["output_base"], rel=1e-12)
+        assert gam["note"].startswith('no effect: [dry] nh3_treatment = "deposition_only"')
+    assert "nh3_treatment" not in _row(t, "N", "dry", "rc_scale_NH3")["note"]
+    # the scenario's own bidirectional exchange: a larger emission potential, a larger
+    # compensation point, less net NH3 deposition, around a bidirectional base
+    bi = {**base, "dry": dataclasses.replace(base["dry"], nh3_treatment="bidirectional")}
+    tb = S.tornado(study, bi, S.SensitivityOptions(
+        factors={"vd_SO2": (0.5, 1.5), "nh3_gamma_grass": (0.0, 100.0)}), KW)
+    gam = _row(tb, "N", "dry", "nh3_gamma_grass")
+    assert gam["output_high"] < gam["output_base"] < gam["output_low"]
+    assert "no effect" not in gam["note"]
     sob = S.sobol(study, base, dataclasses.replace(opt, samples=8), KW)
     n_dry = sob[(sob["element"] == "N") & (sob["quantity"] == "dry")].set_index("factor")
     assert set(n_dry.index) == set(opt.factors)
@@ -212,7 +226,9 @@ def test_new_engine_factors_change_the_dry_options_and_refuse_unknown_names():
     dry = S.apply_engine(DryOptions(), {"rc_scale_O3": 2.0, "nh3_gamma_crops": 0.8})
     assert dry.rc_scale == {"O3": 2.0}
     assert dry.nh3_emission_potential == {"crops": pytest.approx(800.0)}   # 0.8 x 1000
-    assert dry.nh3_treatment == "bidirectional"              # the factor switches it on
+    assert dry.nh3_treatment == "deposition_only"      # the scenario's treatment stands
+    assert S.apply_engine(DryOptions(nh3_treatment="bidirectional"),
+                          {"nh3_gamma_crops": 0.8}).nh3_treatment == "bidirectional"
     assert S.apply_engine(DryOptions(), {"nh3_gamma_crops": None}) == DryOptions()
     with pytest.raises(ValueError, match="unknown gas in factor 'rc_scale_XY'"):
         S.SensitivityOptions(factors={"vd_SO2": (0.5, 1.5), "rc_scale_XY": (0.5, 2.0)})

@@ -43,8 +43,10 @@ def _variant(tiny, tmp_path, site_gamma=None):
     met["temperature [degC]"] = 15.0
     met.to_csv(tmp_path / "met.csv", index=False)
     vsc = load_scenario(tmp_path / "scenario.toml")
-    base = {"wet": vsc.options["wet"], "dry": dataclasses.replace(vsc.options["dry"],
-                                                                   seasonal_category=1),
+    # the scenario's own bidirectional exchange (the factor keeps the scenario's
+    # nh3_treatment: under deposition-only it has no effect)
+    base = {"wet": vsc.options["wet"], "dry": dataclasses.replace(
+                vsc.options["dry"], seasonal_category=1, nh3_treatment="bidirectional"),
             "budget": vsc.options["budget"],
             "fixed_velocity": {k: v for k, v in vsc.fixed_velocity.items() if k != "NH3"}}
     return Study.from_scenario(vsc), base

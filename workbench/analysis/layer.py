@@ -125,6 +125,9 @@ class SiteLayer:
     #: (m,) bulk share of each wet piece [1] where a collector changed (the share of a
     #: period holding the change is redrawn with the samples); None otherwise
     bulk_beta: np.ndarray | None = None
+    #: pair -> species moved into -> DryPieces of the other member at its Vd, for a
+    #: drawn gas/particle split (:func:`workbench.analysis.pairlayer.moved_pieces`)
+    pair_moved: dict = field(default_factory=dict)
 
 
 @dataclass
@@ -454,7 +457,8 @@ def _wet_layers(screened, wet, periods, wet_options, met, sites, ions):
     return out, fills, pwms
 
 
-def linear_layer(result, study, which: str = "budget", overrides=None) -> LinearLayer:
+def linear_layer(result, study, which: str = "budget", overrides=None,
+                 pair_shift=False) -> LinearLayer:
     """The per-sample pieces of a run's budget (``which="budget"``) or of its years.
 
     Parameters
@@ -465,6 +469,9 @@ def linear_layer(result, study, which: str = "budget", overrides=None) -> Linear
     which : {"budget", "years"}
     overrides : dict, optional
         The site overrides `result` was run with (``Study.run(overrides=...)``).
+    pair_shift : bool
+        Also the pair members' rows at the other member's Vd (``SiteLayer.pair_moved``),
+        for a drawn gas/particle split (``[uncertainty] pair_shift_<pair>``).
 
     Returns
     -------
@@ -508,4 +515,9 @@ def linear_layer(result, study, which: str = "budget", overrides=None) -> Linear
                         laboratory_ids(by_id.get(s)), laboratory_ids(by_id.get(s), air=True),
                         bulk[k], piece_betas(raw, wet_pieces[k]) if bulk[k] else None)
               for k, s in enumerate(sites)]
+    if pair_shift:
+        from .pairlayer import moved_pieces
+        for lay, moved in zip(layers, moved_pieces(rows, periods, sites, ds.sizes["receptor"],
+                                                   study.inputs.air, histories, _dry_layers)):
+            lay.pair_moved = moved
     return LinearLayer(ds, layers, period_years(periods), wet_component, tracer)

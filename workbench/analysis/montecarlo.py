@@ -21,6 +21,7 @@ from ..budget import COMPONENTS
 from ..units import element_deposition_in
 from .layer import linear_layer
 from .noise import site_noise
+from .pairnoise import with_pair_shift
 from .quantile_tables import QUANTILES, TOTALS
 from .sitedraws import component_draws, totals_of
 from .uncertainty_options import UncertaintyOptions
@@ -52,6 +53,9 @@ class BudgetQuantiles:
     #: (``nh3_treatment = "bidirectional"``, a site whose NH3 has an emission part, and
     #: ``nh3_gamma_gsd`` > 1): the report names the factor only then.
     nh3_gamma_drawn: bool = False
+    #: The pairs whose gas/particle split was drawn at some site (``pair_shift_<pair>``
+    #: not [0, 0], both members measured, ``pair_split = "measured"``).
+    pair_shift_drawn: tuple = ()
 
 
 def _span_draws(ds, comp, tot):
@@ -124,15 +128,18 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
     if options.draws < 1:
         raise ValueError("UncertaintyOptions.draws must be >= 1 for a Monte Carlo")
     if layers is None:
-        layers = {} if years_only else {"budget": linear_layer(result, study, "budget", overrides)}
+        shift = options.shifts_pairs          # the rows a drawn gas/particle split moves
+        layers = ({} if years_only else
+                  {"budget": linear_layer(result, study, "budget", overrides, shift)})
         layers["years"] = (layers["budget"] if result.years is result.budget and not years_only
-                           else linear_layer(result, study, "years", overrides))
+                           else linear_layer(result, study, "years", overrides, shift))
     years = np.concatenate([lay.period_year for lay in layers.values()])
     year0, n_years = int(years.min()), int(years.max() - years.min() + 1)
     q = np.asarray(QUANTILES)
     out = {}
     span_c, span_t, kept = [], [], []
     bulk_drawn = gamma_drawn = False
+    shift_drawn = set()
     for which, lay in sorted(layers.items(), key=lambda kv: kv[0] != "years"):
         if which == "budget" and lay is layers.get("years"):
             out[which] = out["years"]                # a yearly run: the same draws
@@ -143,11 +150,14 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
         tot_q = {name: np.full((len(q), n_s, n_r, n_p), np.nan)
                  for name in TOTALS + ("oxidized_N", "reduced_N", "potential_acidity")}
         for k in range(n_s):
-            noise = site_noise(lay.sites[k], options, options.draws, n_years, n_p,
-                               (options.seed, str(ds["site"].values[k])), year0,
+            key = (options.seed, str(ds["site"].values[k]))
+            noise = site_noise(lay.sites[k], options, options.draws, n_years, n_p, key, year0,
                                (ds["period_start"].values, ds["period_end"].values))
+            if options.shifts_pairs:
+                with_pair_shift(noise, lay.sites[k], options, key, n_years, year0)
             bulk_drawn |= noise.bulk is not None
             gamma_drawn |= noise.nh3_gamma is not None
+            shift_drawn.update(noise.pair_shift or ())
             comp = component_draws(lay, k, noise, year0)
             tot = totals_of(comp)
             comp_q[:, k] = np.quantile(comp, q, axis=0)
@@ -185,7 +195,7 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
         coords={"draw": np.arange(options.draws), "site": yds["site"].values,
                 "receptor": yds["receptor"].values, "period": per})
     return BudgetQuantiles(out.get("budget"), out["years"], span, options, draws, bulk_drawn,
-                           gamma_drawn)
+                           gamma_drawn, tuple(sorted(shift_drawn)))
 
 
 def _annual_draws(tot, span_t, annual_factor):

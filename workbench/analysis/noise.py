@@ -70,6 +70,10 @@ class SiteNoise:
     #: net NH3 exchange (``nh3_gamma_gsd`` > 1 and a site with a bidirectional
     #: emission; None: not drawn)
     nh3_gamma: dict | None = None
+    #: pair -> :class:`.pairnoise.PairShift`, the drawn gas/particle split of a filter
+    #: pack's pair (``pair_shift_<pair>``, :func:`.pairnoise.with_pair_shift`; None: not
+    #: drawn)
+    pair_shift: dict | None = None
 
 
 def _normal_factor(rng, sd, shape):

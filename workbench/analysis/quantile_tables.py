@@ -211,6 +211,24 @@ def gamma_words(options, gamma=None) -> str:
             "exchange), ")
 
 
+def pair_words(options) -> str:
+    """The words naming a drawn gas/particle split (``pair_shift_<pair>`` not [0, 0]),
+    "" where none is asked for.
+
+    >>> pair_words(types.SimpleNamespace(pair_shift_nitrate=(-0.3, 0.0),
+    ...                                  pair_shift_ammonium=(0.0, 0.0)))
+    'pair_shift_nitrate = [-0.3, 0] (the gas/particle split, where both members are measured and pair_split = "measured"), '
+    """
+    given = [(p, getattr(options, f"pair_shift_{p}", (0.0, 0.0)))
+             for p in ("nitrate", "ammonium")]
+    given = [(p, r) for p, r in given if tuple(r) != (0.0, 0.0)]
+    if not given:
+        return ""
+    return ", ".join(f"pair_shift_{p} = [{r[0]:g}, {r[1]:g}]" for p, r in given) + (
+        ' (the gas/particle split, where both members are measured and pair_split = '
+        '"measured"), ')
+
+
 def draws_in_force(options, bulk=None, gamma=None) -> str:
     """One line naming how the systematic factors were drawn (the options a reader of a
     range must know: ``systematic_errors``, the laboratory biases, the land-use class
@@ -231,7 +249,7 @@ def draws_in_force(options, bulk=None, gamma=None) -> str:
             f"vd_class_fraction = {options.vd_class_fraction:g}, "
             f"vd_site_gsd = {getattr(options, 'vd_site_gsd', 1.0):g}, "
             f"lab_bias_filter_pack = {str(getattr(options, 'lab_bias_filter_pack', False)).lower()}, "
-            + bulk_words + gamma_words(options, gamma)
+            + bulk_words + gamma_words(options, gamma) + pair_words(options)
             + f"gauge_catch_rel_sd = {options.gauge_catch_rel_sd:g} per gauge period "
             f"({options.draws} draws, seed {options.seed}).")
 

@@ -21,10 +21,13 @@ Factors (scenario section ``[sensitivity]``, table ``factors``: name -> range):
   ``[dry] nh3_emission_potential`` for the class or ``"<site>/<class>"``, or the site's
   own value in sites.toml: each scaled by the same factor, as the Monte Carlo's G;
   named with ``[]``, +-1 GSD of its ``nh3_gamma_gsd``,
-  :func:`.sensitivity_options.nh3_gamma_range`).  ``nh3_gamma_*`` switches the bidirectional
-  NH3 model on (``nh3_treatment = "bidirectional"``) in every run where it has a value,
-  so its low and high ends compare with each other, not with a deposition-only base.
-  Before, the factor was Gamma_s itself, its ``[]`` range centred on the class default,
+  :func:`.sensitivity_options.nh3_gamma_range`).  ``nh3_gamma_*`` keeps the scenario's
+  ``[dry] nh3_treatment``: Gamma_s acts through the bidirectional exchange only, so under
+  ``"deposition_only"`` the factor has no effect and its rows say so (:func:`row_note`).
+  Before, it switched the bidirectional model on in the runs where it had a value: the
+  tornado's low and high ends were bidirectional, its base and every other factor's
+  runs deposition-only, so the bar compared two runs of another model than the one the
+  scenario reports.  Before that, the factor was Gamma_s itself, its ``[]`` range centred on the class default,
   and a site's own Gamma_s won over it: where the scenario or a site overrode the
   class, the analysis explored values that were not in force, or nothing.
 
@@ -145,9 +148,8 @@ def apply_engine(dry, values: dict, site_gamma=None):
             rough[lu] = (v, (rough.get(lu) or (None, None))[1])
         elif kind == "rc_scale":
             rc_scale[name[len("rc_scale_"):]] = v
-        elif kind == "nh3_gamma":                      # the factor switches the model on
+        elif kind == "nh3_gamma":      # the scenario's treatment stands (row_note)
             scale[name[len("nh3_gamma_"):]] = v
-            changes["nh3_treatment"] = "bidirectional"
     if scale:
         gamma = scaled_gamma(gamma, scale, site_gamma)
     return dataclasses.replace(dry, particle_modes=modes, roughness=rough, rc_scale=rc_scale,
@@ -263,6 +265,7 @@ def evaluate(study, base_options: dict, options: SensitivityOptions, x: np.ndarr
             table = res.table
             coords["pairs"] = set(zip(table["site"].astype(str), table["receptor"].astype(str)))
             coords["classes"] = site_classes(study.catalogue(run_kwargs.get("overrides")))
+            coords["nh3_treatment"] = base_options["dry"].nh3_treatment
             coords["bulk"] = {(k, p): bool(any(bp.b[p] > 0 for bp in ls.bulk_part.values()))
                               for k, ls in enumerate(layer.sites)
                               for p in range(ds.sizes["period"])}
@@ -314,7 +317,7 @@ def sobol(study, base_options: dict, options: SensitivityOptions, run_kwargs=Non
                          si["ST"][i], si["ST_conf"][i],
                          row_note(name, el, quantity, coords["data"][(s, r, p)],
                                   coords["bulk"].get((s, p)),
-                                  coords["classes"].get(cell[0]))))
+                                  coords["classes"].get(cell[0]), coords["nh3_treatment"])))
     frame = pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
                                         "factor", "S1", "S1_conf", "ST", "ST_conf", "note"])
     frame.attrs.update(evaluations=len(x), engine_runs=coords["engine_runs"])
@@ -378,7 +381,7 @@ def tornado(study, base_options: dict, options: SensitivityOptions, run_kwargs=N
                          conv(lo), conv(hi), b, unit,
                          row_note(nm, el, quantity, coords["data"][(s, r, p)],
                                   coords["bulk"].get((s, p)),
-                                  coords["classes"].get(cell[0]))))
+                                  coords["classes"].get(cell[0]), coords["nh3_treatment"])))
     frame = pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "quantity",
                                         "factor", "low", "high", "base", "output_low",
                                         "output_high", "output_base", "unit", "note"])
@@ -486,7 +489,8 @@ def site_classes(catalogue) -> dict:
         + tuple(earlier.get(s.id, ())))) for s in catalogue}
 
 
-def row_note(name, element, quantity, data, has_bulk=None, classes=None) -> str:
+def row_note(name, element, quantity, data, has_bulk=None, classes=None,
+             nh3_treatment=None) -> str:
     """The note of a row of sensitivity.csv or tornado.csv [text] ("" for none).
 
     An index 0 because the factor reaches only components without data at the site
@@ -512,6 +516,10 @@ def row_note(name, element, quantity, data, has_bulk=None, classes=None) -> str:
         The land-use classes of the site (:func:`site_classes`): a ``z0_<class>`` or
         ``nh3_gamma_<class>`` of another class has nothing to act on there (its zeros
         read as a measured nil effect before).
+    nh3_treatment : str, optional
+        The scenario's ``[dry] nh3_treatment``: under ``"deposition_only"`` an
+        ``nh3_gamma_<class>`` factor has nothing to act on (Gamma_s enters the
+        bidirectional exchange only) and the note says so.
     """
     from ..budget import COMPONENTS
     lacking, idle = data
@@ -525,6 +533,9 @@ def row_note(name, element, quantity, data, has_bulk=None, classes=None) -> str:
     if reach and all(c in idle for c in reach):
         parts.append("no effect for want of data: " + "; ".join(
             f"{path} {sp} {idle[(path, sp)]}" for path, sp in reach))
+    if kind == "nh3_gamma" and nh3_treatment not in (None, "bidirectional"):
+        parts.append(f'no effect: [dry] nh3_treatment = "{nh3_treatment}" (Gamma_s acts in '
+                     'the bidirectional NH3 exchange only)')
     if kind in ("z0", "nh3_gamma") and classes is not None:
         cls = name[len("z0_"):] if kind == "z0" else name[len("nh3_gamma_"):]
         if cls not in classes:

@@ -27,8 +27,8 @@ ENGINE_TEXT = {"wetness_rule": ("the surface-wetness rule, one of the rules list
                "rc_scale": ("a multiplier of {x}'s surface resistance Rc", "[1]"),
                "nh3_gamma": ("a multiplier of the stomatal NH3 emission potential Gamma_s "
                              "of the class {x} in force at each site (the class default, "
-                             "the scenario's or the site's own value; switches the "
-                             "bidirectional NH3 model on)", "[1]")}
+                             "the scenario's or the site's own value; under the "
+                             "scenario's nh3_treatment: no effect unless bidirectional)", "[1]")}
 #: The families of engine factors, as a user names them.
 ENGINE_FAMILIES = {"wetness_rule": "wetness_rule", "fine_fraction": "fine_fraction_<particle>",
                    "fine_mmd": "fine_mmd_<particle>", "z0": "z0_<land use>",

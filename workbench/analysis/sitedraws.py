@@ -20,6 +20,7 @@ from .bulk import HELD, PRECIP, apply_bulk
 from .drydraws import dry_ratio, nh3_net_draws, nss_dry_draws
 from .layer import DRY_SPECIES, LinearLayer
 from .noise import SiteNoise
+from .pairdraws import apply_pair_shift
 from .wetdraws import _gauge_by_piece, wet_ratios
 
 
@@ -42,38 +43,10 @@ def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int)
     yi = layer.period_year - year0
     ratio = np.ones((d, n_r, n_p, n_c))
     ls = layer.sites[site]
-    direct = {}
+    dry = {}
     for j, (_, path, sp) in enumerate(COMPONENTS):
         if path == "dry" and sp in ls.dry:
-            k = DRY_SPECIES.index(sp)
-            cf = ({c: f[:, yi, k] for c, f in noise.vd_class.items()}
-                  if noise.vd_class and ls.dry[sp].klass is not None else None)
-            ratio[..., j] = dry_ratio(ls.dry[sp], noise.vd[:, yi, k], noise.air[sp],
-                                      noise.vd_fill[sp], cf)
-            pc = ls.dry[sp]
-            if (sp == "NH3" and getattr(pc, "exchange", None) is not None
-                    and ds.attrs.get("nh3_figure") == "net"):
-                # the net exchange: the concentration errors on its deposition part only,
-                # where the point is that net (not where the budget set it otherwise)
-                lin = (pc.exchange.sum(0) - pc.emission.sum(0)).T                 # (R, P)
-                pt = point[..., j]
-                same = np.isfinite(pt) & np.isclose(pt, lin, rtol=1e-9, atol=1e-300)
-                if same.any():
-                    g = getattr(noise, "nh3_gamma", None)
-                    g = None if not g else {c: f[:, yi] for c, f in g.items()}
-                    direct[j] = (nh3_net_draws(pc, noise.vd[:, yi, k], noise.air[sp],
-                                               noise.vd_fill[sp], cf, g), same)
-            if pc.seasalt is not None and sp in noise.air_seasalt:
-                # non-sea-salt pSO4: drawn as the difference of its two analyses and
-                # clipped at 0 as the budget's sum, where the point is that clipped sum
-                # (not where the budget set it otherwise, e.g. caught by a bulk collector)
-                lin = np.maximum(pc.contrib.sum(0).T, 0.0)                    # (R, P)
-                pt = point[..., j]
-                same = np.isfinite(pt) & np.isclose(pt, lin, rtol=1e-9, atol=1e-300)
-                if same.any():
-                    direct[j] = (nss_dry_draws(pc, noise.vd[:, yi, k], noise.air[sp],
-                                               noise.air_seasalt[sp], noise.vd_fill[sp], cf),
-                                 same)
+            dry[j] = dry_draws(layer, site, noise, sp, noise.air, year0)
     if ls.wet is not None:
         wanted = set(layer.wet_component.values())
         gauge, piece = noise.gauge[:, yi], None
@@ -104,8 +77,56 @@ def component_draws(layer: LinearLayer, site: int, noise: SiteNoise, year0: int)
                     r = apply_bulk(r, p, None if u is None else u[:, yi], sh)
                 ratio[..., j] = r[:, None, :]
     out = point[None] * ratio
-    for j, (drawn, same) in direct.items():
-        out[..., j] = np.where(same[None], drawn, out[..., j])
+    for j, drawn in dry.items():
+        out[..., j] = drawn
+    if getattr(noise, "pair_shift", None):
+        # the drawn gas/particle split of a filter pack's pairs (pair_shift_<pair>)
+        apply_pair_shift(layer, site, noise, year0, out,
+                         lambda sp, air: dry_draws(layer, site, noise, sp, air, year0))
+    return out
+
+
+def dry_draws(layer: LinearLayer, site: int, noise: SiteNoise, sp: str, air: dict,
+              year0: int) -> np.ndarray:
+    """Draws of the dry component of species `sp` at one site: (D, R, P) [mol m-2].
+
+    `air` species -> (D, n) the multiplicative errors of each row's concentration
+    [1] (``noise.air``, or those of a drawn gas/particle split,
+    :func:`.pairdraws.apply_pair_shift`).  The point times the drawn ratio
+    (:func:`.drydraws.dry_ratio`), but the non-sea-salt pSO4 and the net NH3 exchange
+    drawn directly where the point is that sum."""
+    ds = layer.budget
+    j = [c[1:] for c in COMPONENTS].index(("dry", sp))
+    pt = ds["deposition"].values[site][..., j]                       # (R, P)
+    yi = layer.period_year - year0
+    ls = layer.sites[site]
+    k = DRY_SPECIES.index(sp)
+    pc = ls.dry[sp]
+    cf = ({c: f[:, yi, k] for c, f in noise.vd_class.items()}
+          if noise.vd_class and pc.klass is not None else None)
+    out = pt[None] * dry_ratio(pc, noise.vd[:, yi, k], air[sp], noise.vd_fill[sp], cf)
+    drawn = same = None
+    if (sp == "NH3" and getattr(pc, "exchange", None) is not None
+            and ds.attrs.get("nh3_figure") == "net"):
+        # the net exchange: the concentration errors on its deposition part only,
+        # where the point is that net (not where the budget set it otherwise)
+        lin = (pc.exchange.sum(0) - pc.emission.sum(0)).T                 # (R, P)
+        same = np.isfinite(pt) & np.isclose(pt, lin, rtol=1e-9, atol=1e-300)
+        if same.any():
+            g = getattr(noise, "nh3_gamma", None)
+            g = None if not g else {c: f[:, yi] for c, f in g.items()}
+            drawn = nh3_net_draws(pc, noise.vd[:, yi, k], air[sp], noise.vd_fill[sp], cf, g)
+    if pc.seasalt is not None and sp in noise.air_seasalt:
+        # non-sea-salt pSO4: drawn as the difference of its two analyses and clipped at
+        # 0 as the budget's sum, where the point is that clipped sum (not where the
+        # budget set it otherwise, e.g. caught by a bulk collector)
+        lin = np.maximum(pc.contrib.sum(0).T, 0.0)                        # (R, P)
+        same = np.isfinite(pt) & np.isclose(pt, lin, rtol=1e-9, atol=1e-300)
+        if same.any():
+            drawn = nss_dry_draws(pc, noise.vd[:, yi, k], air[sp], noise.air_seasalt[sp],
+                                  noise.vd_fill[sp], cf)
+    if drawn is not None:
+        out = np.where(same[None], drawn, out)
     return out
 
 

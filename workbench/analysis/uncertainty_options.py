@@ -150,6 +150,25 @@ class UncertaintyOptions:
         the scatter in Massad et al. 2010, ACP 10, 10359: :data:`DEFAULT_NH3_GAMMA_GSD`);
         1 switches it off.  Not drawn, and not named as drawn, where no site has an
         emission part.
+    pair_shift_nitrate : tuple
+        ``[low, high]``: the range of the drawn share s of the nitrate pair's
+        gas/particle split that a filter pack measured in the wrong phase [1], uniform
+        on the range, one draw per site (by its id and the pair), shared by its years
+        (``"each_year"``: per site and calendar year).  s > 0: a share s of the measured
+        pNO3 was gas, and is deposited with the HNO3 Vd; s < 0: a share -s of the
+        measured HNO3 was particle (ammonium nitrate lost from the front filter and
+        caught as gas on the back filter), deposited with the pNO3 Vd (the moved rows
+        are the bracket's, :mod:`.pairdraws`).  -1 <= low <= high <= 1; [0, 0]
+        (default) switches it off, and the draws stay as they were.  Drawn where both
+        members are measured and ``[budget] pair_split = "measured"`` (otherwise the
+        split is set there).  Ranges from memory: docs/methods_uncertainty.md, "The
+        gas/particle split of a filter pack".
+    pair_shift_ammonium : tuple
+        The same for the ammonium pair: s > 0 a share of the measured pNH4 that was NH3
+        (deposited with the NH3 Vd: under ``nh3_treatment = "bidirectional"`` the
+        deposition-only scheme's, as the bracket), s < 0 a share of the measured NH3
+        that was pNH4; drawn apart from the nitrate's (its own stream).  [0, 0]
+        (default) switches it off.
     """
 
     draws: int = 0
@@ -172,6 +191,8 @@ class UncertaintyOptions:
     bulk_factor_rel_sd: float = 0.1
     bulk_factor_ion_correlation: float = 0.7
     nh3_gamma_gsd: float = DEFAULT_NH3_GAMMA_GSD
+    pair_shift_nitrate: tuple = (0.0, 0.0)
+    pair_shift_ammonium: tuple = (0.0, 0.0)
 
     def __post_init__(self):
         if self.systematic_errors not in SYSTEMATIC_ERRORS:
@@ -198,6 +219,10 @@ class UncertaintyOptions:
             if isinstance(v, bool) or not isinstance(v, (int, float)) or not 1 <= v < math.inf:
                 raise ValueError(f"UncertaintyOptions.{name} = {v!r} must be a finite number "
                                  ">= 1 (1 switches the factor off)")
+        for pair in PAIR_SHIFT_PAIRS:
+            object.__setattr__(self, f"pair_shift_{pair}",
+                               _shift_range(f"pair_shift_{pair}",
+                                            getattr(self, f"pair_shift_{pair}")))
         if not isinstance(self.lab_bias_filter_pack, bool):
             raise ValueError(f"UncertaintyOptions.lab_bias_filter_pack = "
                              f"{self.lab_bias_filter_pack!r} must be true or false")
@@ -222,3 +247,35 @@ class UncertaintyOptions:
 
     def gsd(self, species: str) -> float:
         return float(self.vd_gsd.get(species, 1.0))
+
+    def pair_shift(self, pair: str) -> tuple:
+        """``(low, high)`` of the drawn share of `pair` (a key of
+        :data:`workbench.budget.PAIRS`) [1]; ``(0.0, 0.0)``: not drawn."""
+        return getattr(self, f"pair_shift_{pair}", (0.0, 0.0))
+
+    @property
+    def shifts_pairs(self) -> bool:
+        """Whether a gas/particle share is drawn for any pair."""
+        return any(self.pair_shift(p) != (0.0, 0.0) for p in PAIR_SHIFT_PAIRS)
+
+
+#: The pairs whose gas/particle share may be drawn (``pair_shift_<pair>``), the keys of
+#: :data:`workbench.budget.PAIRS`.
+PAIR_SHIFT_PAIRS = ("nitrate", "ammonium")
+
+
+def _shift_range(name, value) -> tuple:
+    """``[low, high]`` of a ``pair_shift_<pair>`` as a tuple of floats, or ValueError
+    naming the option, its value and what is expected."""
+    ok = (isinstance(value, (list, tuple)) and len(value) == 2
+          and all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in value))
+    if ok:
+        lo, hi = float(value[0]), float(value[1])
+        ok = -1.0 <= lo <= hi <= 1.0
+    if not ok:
+        shown = list(value) if isinstance(value, tuple) else value
+        raise ValueError(
+            f"UncertaintyOptions.{name} = {shown!r} must be [low, high] with -1 <= low <= "
+            "high <= 1: the share of the measured particle that was gas (> 0) or of the "
+            "measured gas that was particle (< 0); [0, 0] switches it off")
+    return (lo + 0.0, hi + 0.0)                 # -0.0 -> 0.0
