@@ -202,6 +202,16 @@ def test_sites_id_with_a_trailing_blank(write):
             "files' cells are read stripped, so 'beta' there would never match it)")
 
 
+def test_sites_id_starting_with_a_hash(write):
+    """'#beta': refused in the catalogue, since a data-file line starting with '#' is a
+    comment or a '# key: value' line and its rows would never be read as data."""
+    p = write("s.toml", SITES.replace('id = "beta"', 'id = "#beta"'))
+    _raises(read_sites, p, match="s.toml, line 19, column 'id': site id starting with '#': "
+            "got '#beta', expected an id starting with a letter or digit (a data file's line "
+            "starting with '#' is a comment or a '# key: value' line, so a row of '#beta' "
+            "would never be read as data); e.g. 'beta'")
+
+
 def test_invalid_toml(write):
     p = write("s.toml", SITES.replace('name = "Alpha Test Field"', 'name = Alpha'))
     _raises(read_sites, p, match="s.toml, line 3: invalid TOML")
