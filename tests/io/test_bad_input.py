@@ -137,8 +137,9 @@ def test_header_only(write, cat):
 def test_bad_timestamp(write, cat):
     p = _precip(write, [ROW.replace("2020-01-07T09:00", "07/01/2020 09:00")])
     _raises(read_precipitation, p, cat, match="p.csv, line 2, column 'start': not an ISO 8601 "
-            "timestamp (a date in day/month or month/day order? write year-month-day, e.g. "
-            "2020-01-09T14:00): got '07/01/2020 09:00'")
+            "timestamp (a date in day/month or month/day order? write year-month-day: "
+            "2020-01-07T09:00 if day first, 2020-07-01T09:00 if month first): got "
+            "'07/01/2020 09:00'")
 
 
 def test_unknown_flag_code(write, cat):
