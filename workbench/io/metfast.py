@@ -36,9 +36,12 @@ the line reader counts them), a known site and a valid timestamp on the hour (a 
 or quarter hour of a fractional offset moved to the whole UTC hour, :mod:`.methours`,
 with the line reader's one note per site), each site's timestamps all zoned or all
 naive (per-site tallies of the zone flags, :class:`~.metlocate.ZoneTally`), no
-repeated hour (a file with an exact repeat, a day of repeats or a line repeating the
-header goes to the line reader, which drops the exact repeats; a repeated hour with
-another value is located here, with the differing cell, :func:`.metlocate.repeat_differs`).  An error of one row (the last
+repeated hour but exact repeats (24 or more rows repeating an earlier row of their site
+and hour in every value, every column read and no label moved: dropped here as the line
+reader drops them, :func:`_exact_repeats`; fewer, or a file with a column not read, a
+moved label or a line repeating the header, goes to the line reader; a repeated hour
+with another value is located here, with the differing cell,
+:func:`.metlocate.repeat_differs`).  An error of one row (the last
 conditions) and a line with more fields than the header (``...,3.2,,`` where the header
 ends at 3.2: the line reader's parser refuses the file) it locates itself as the line
 reader does (:mod:`.metlocate`).  For the truly odd files (a quoted cell over several
