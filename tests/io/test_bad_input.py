@@ -137,8 +137,9 @@ def test_header_only(write, cat):
 def test_bad_timestamp(write, cat):
     p = _precip(write, [ROW.replace("2020-01-07T09:00", "07/01/2020 09:00")])
     _raises(read_precipitation, p, cat, match="p.csv, line 2, column 'start': not an ISO 8601 "
-            "timestamp (a date in day/month or month/day order? write year-month-day, e.g. "
-            "2020-01-09T14:00): got '07/01/2020 09:00'")
+            "timestamp (a date in day/month or month/day order? write year-month-day: "
+            "2020-01-07T09:00 if day first, 2020-07-01T09:00 if month first): got "
+            "'07/01/2020 09:00'")
 
 
 def test_unknown_flag_code(write, cat):
@@ -200,6 +201,16 @@ def test_sites_id_with_a_trailing_blank(write):
     _raises(read_sites, p, match="s.toml, line 19, column 'id': site id with blanks at its "
             "ends: got 'beta ', expected an id without leading or trailing blanks (the data "
             "files' cells are read stripped, so 'beta' there would never match it)")
+
+
+def test_sites_id_starting_with_a_hash(write):
+    """'#beta': refused in the catalogue, since a data-file line starting with '#' is a
+    comment or a '# key: value' line and its rows would never be read as data."""
+    p = write("s.toml", SITES.replace('id = "beta"', 'id = "#beta"'))
+    _raises(read_sites, p, match="s.toml, line 19, column 'id': site id starting with '#': "
+            "got '#beta', expected an id starting with a letter or digit (a data file's line "
+            "starting with '#' is a comment or a '# key: value' line, so a row of '#beta' "
+            "would never be read as data); e.g. 'beta'")
 
 
 def test_invalid_toml(write):

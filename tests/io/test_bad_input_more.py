@@ -385,9 +385,11 @@ NC_CASES = {
     "missing_units": (_no_units, "column 'temperature': variable has no units attribute, "
                       "expected a CF 'units' attribute convertible to K"),
     "wrong_units": (_kelvin_as_kg, "column 'pressure': unknown or dimensionally wrong unit"),
-    "collapsed_time_axis": (_collapsed, "column 'time': duplicate hourly timestamp (site "
-                            "'alpha', time index 1): got '2020-01-07T00:00:00', expected one "
-                            "row per site and hour (also on time index 0)"),
+    "collapsed_time_axis": (_collapsed, "column 'wind_speed': duplicate hourly timestamp with "
+                            "another value (site 'alpha', time 2020-01-07T00:00:00: time index "
+                            "1 repeats time index 0): got '3.5 m s-1', expected one value per "
+                            "site and hour (time index 0 has wind_speed 3.0 m s-1 where time "
+                            "index 1 has 3.5 m s-1); keep the corrected time step only"),
     "half_hour_stamps": (_half_hours, "column 'time': timestamp not on the hour (site 'alpha', "
                          "time index 0): got '2020-01-07T00:30:00', expected hourly timestamps"),
     "site_misspelt": (lambda ds: ds.assign_coords(site=["alpah"]),

@@ -94,8 +94,11 @@ CASES = {
     "fill_value": (_value("temperature", 5, -999.0, fill=True),
                    ("reason", "temperature missing (no value)")),
     "times_twice": (_times_twice,
-                    ("error", ["column 'time'", "duplicate hourly timestamp",
-                               "time index 10", "got '2020-01-07T09:00:00'"])),
+                    ("error", ["column 'wind_speed'", "duplicate hourly timestamp with "
+                               "another value", "site 'alpha', time 2020-01-07T09:00:00",
+                               "time index 10 repeats time index 9",
+                               "time index 9 has wind_speed 5.0 m s-1 where time index 10 "
+                               "has 3.0 m s-1"])),
     "variable_missing": (lambda ds: ds.drop_vars("wind_speed"),
                          ("error", ["column 'wind_speed'", "missing required variable"])),
     "variable_misspelt": (lambda ds: ds.rename({"wind_speed": "windspeed"}),

@@ -381,6 +381,7 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
     from .metstore import MetStore, grid_rows, load_small
     from .metvars import met_attrs
     squeezed, label = _netcdf_layout(raw, path, catalogue)
+    raw, again = _drop_axis_repeats(raw, path)
     ids = raw["site"].values.astype(str)
     times = raw["time"].values.astype("datetime64[ns]")
     if label == "start":
@@ -455,16 +456,22 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
         store.remove()
         raise InputError("no values in any row", file=path,
                          expected="at least one hour with a value")
-    n = n_s * n_t
+    ledger_ids, n_t_file = ids, n_t
+    if again is not None:     # the dropped repeats back in the file's record numbering
+        ledger_ids, n_t_file, reason_codes, rejected = again.records(
+            reason_codes, rejected, texts.setdefault(REPEAT_REASON, len(texts)))
+    n = len(ledger_ids) * n_t_file
     lines = np.arange(n) + 1
     text_arr = np.array(list(texts), dtype=object)
     if n <= CODED_ABOVE:
-        ledger = Ledger.for_rows(path, lines, np.repeat(ids.astype(object), n_t),
+        ledger = Ledger.for_rows(path, lines, np.repeat(ledger_ids.astype(object), n_t_file),
                                  text_arr[reason_codes], rejected)
     else:
-        ledger = Ledger.for_codes(CodedRows(str(path), lines,
-                                            np.repeat(np.arange(n_s, dtype=np.int32), n_t),
-                                            ids.astype(object), reason_codes, text_arr, rejected))
+        ledger = Ledger.for_codes(CodedRows(
+            str(path), lines, np.repeat(np.arange(len(ledger_ids), dtype=np.int32), n_t_file),
+            ledger_ids.astype(object), reason_codes, text_arr, rejected))
+    if again is not None:
+        ledger.notes.extend(again.notes)
     pos = {s: i for i, s in enumerate(ids)}
     site_ids = [s for s in catalogue.ids if s in pos and kept_sites[pos[s]]]
     ds = store.dataset(site_ids, t_first + np.arange(lo_t, hi_t + 1) * HOUR,
@@ -477,6 +484,16 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
         ledger.notes.append(f"{path.name}: single-level dimension dropped from "
                             + ", ".join(squeezed))
     return ds, ledger
+
+
+def _drop_axis_repeats(raw, path):
+    """`raw` without the time steps and sites that repeat earlier ones in every
+    variable (:mod:`workbench.io.metaxes`), and what was dropped (None: nothing)."""
+    from .metaxes import AxisRepeats
+    again = AxisRepeats.find(raw, path, read_values)
+    if again is None:
+        return raw, None
+    return raw.isel(site=again.keep_site, time=again.keep_time), again
 
 
 def read_met_zarr(path, catalogue):

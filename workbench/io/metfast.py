@@ -36,9 +36,12 @@ the line reader counts them), a known site and a valid timestamp on the hour (a 
 or quarter hour of a fractional offset moved to the whole UTC hour, :mod:`.methours`,
 with the line reader's one note per site), each site's timestamps all zoned or all
 naive (per-site tallies of the zone flags, :class:`~.metlocate.ZoneTally`), no
-repeated hour (a file with an exact repeat, a day of repeats or a line repeating the
-header goes to the line reader, which drops the exact repeats; a repeated hour with
-another value is located here, with the differing cell, :func:`.metlocate.repeat_differs`).  An error of one row (the last
+repeated hour but exact repeats (24 or more rows repeating an earlier row of their site
+and hour in every value, every column read and no label moved: dropped here as the line
+reader drops them, :func:`_exact_repeats`; fewer, or a file with a column not read, a
+moved label or a line repeating the header, goes to the line reader; a repeated hour
+with another value is located here, with the differing cell,
+:func:`.metlocate.repeat_differs`).  An error of one row (the last
 conditions) and a line with more fields than the header (``...,3.2,,`` where the header
 ends at 3.2: the line reader's parser refuses the file) it locates itself as the line
 reader does (:mod:`.metlocate`).  For the truly odd files (a quoted cell over several
@@ -71,7 +74,7 @@ from ..threads import map_ordered, threads_here
 from ..units import parse_header
 from . import metchecks, methours, metlocate
 from .metclock import add_clock_notes
-from .common import join_reasons, release_free_memory, unused_note
+from .common import REPEAT_REASON, join_reasons, release_free_memory, repeat_note, unused_note
 from .ledger import CodedRows, Ledger
 from .linechunks import (Source, gunzip, header_cells, line_cells, normalise, parsed_cells,
                          plain, plain_rows, read_head)
@@ -264,7 +267,10 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
             zones = rows.zones.first_break()
             zones = None if zones is None else tuple(int(x) for x in rows.line_of(zones))
         if not firsts and zones is None:
-            got = _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour)
+            drops = not parser.moved and all(c in set(variables) | {"site", "time"}
+                                             for c in raw_headers)
+            got = _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour,
+                           drops)
             if got is not None and got is not _REPEAT:
                 got[1].notes[:0] = methours.move_notes(   # as the line reader: first
                     list(ids), catalogue.utc_offsets(ids), parser.moved, parser.kept)
@@ -291,6 +297,28 @@ def _read(stream, path, catalogue, chunk_bytes, hour, variables, convert, size_h
                                                                 ("site", "time")),
                               zones)
         return None                    # nothing raised: the line reader judges the file
+
+
+def _exact_repeats(key, values):
+    """Rows repeating an earlier row of their (site, hour) `key` in every value read
+    (NaN equal to NaN), sorted by key, no loop over rows.
+
+    Returns
+    -------
+    again, of : ndarray of int or None
+        Positions of the repeats and of the first row of their key; (None, None) when
+        a repeat has another value (the line reader's located error).
+    """
+    order = np.argsort(key, kind="stable")
+    sk = key[order]
+    new = np.r_[True, sk[1:] != sk[:-1]]
+    start = np.maximum.accumulate(np.where(new, np.arange(len(sk)), 0))
+    again, of = order[~new], order[start[~new]]
+    for v in values.values():
+        a, b = v[again], v[of]
+        if not ((a == b) | (np.isnan(a) & np.isnan(b))).all():
+            return None, None
+    return again, of
 
 
 #: A line starting with ``#`` (blanks before it allowed) in a chunk of data lines.
@@ -515,9 +543,14 @@ def _parse(source, rows, parser, chunk_bytes, size_hint):
     return seen > 0, firsts
 
 
-def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour):
+def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour, drops=False):
     """Repeats refused, per-site checks, the ledger as codes and the (site, time) store,
-    one group of whole sites at a time."""
+    one group of whole sites at a time.
+
+    `drops`: exact repeats may be dropped here (every column is read and no label was
+    moved onto the UTC hour, so the values read are every cell of a row); they are, as
+    the line reader drops them, when there are :data:`~.methours.TWICE_ROWS` or more
+    (fewer: the line reader judges the clock going back)."""
     if not rows.present.any():
         return None                          # "no values in any row": the line reader says so
     n, site = rows.n, rows.site
@@ -531,7 +564,7 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour):
     reason_codes = np.zeros(n, np.int32)
     rejected = np.zeros(n, bool)
     texts = {"": 0}
-    gap_notes = []
+    gap_notes, repeats = [], []
 
     def check(grp):
         """One group of whole sites (on a thread): None for a repeated hour, else the
@@ -541,12 +574,22 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour):
         lo_t = tv.min()
         span = int((tv.max() - lo_t) // hour_ns) + 1     # (site, hour) as one integer
         key = (st.astype(np.int64) - int(st.min())) * span + (tv - lo_t) // hour_ns
-        if not (key[1:] > key[:-1]).all():    # rows not in (site, hour) order: sort them
-            key = np.sort(key)
-            if (key[1:] == key[:-1]).any():
-                return None                               # a repeated hour: the line reader
-        del key
         sub = {k: rows.read(k, grp) for k in rows.names}
+        again = of = np.empty(0, np.int64)
+        if not (key[1:] > key[:-1]).all():    # rows not in (site, hour) order: sort them
+            if drops:
+                again, of = _exact_repeats(key, sub)
+            elif (np.diff(np.sort(key)) == 0).any():
+                again = None
+            if again is None:
+                return None                               # a repeated hour: the line reader
+            if len(again):
+                kept = np.ones(len(grp), bool)
+                kept[again] = False
+                sub = {k: v[kept] for k, v in sub.items()}
+                tt, st, tv = tt[kept], st[kept], tv[kept]
+                again, of, grp = grp[again], grp[of], grp[kept]
+        del key
         empty = np.ones(len(grp), bool)
         for v in sub.values():
             empty &= np.isnan(v)
@@ -570,7 +613,7 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour):
                 "row_present": SimpleNamespace(values=present),
                 "site": SimpleNamespace(values=np.array(site_ids[lo:hi], dtype=object)),
                 "time": SimpleNamespace(values=times)})
-        return grp, inv, [str(u) for u in uniq], empty, notes
+        return grp, inv, [str(u) for u in uniq], empty, notes, again, of
 
     # groups in flight: one per thread (map_ordered), so each is smaller on more threads
     checked = map_ordered(check, rows.groups(max(CHECK_ROWS // threads_here(), 1)))
@@ -580,15 +623,27 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour):
                 checked.close()              # the groups still running finish first
                 store.remove()
                 return _REPEAT
-            grp, inv, uniq, empty, notes = got
+            grp, inv, uniq, empty, notes, again, of = got
             for u in uniq:
                 texts.setdefault(u, len(texts))
             reason_codes[grp] = np.array([texts[u] for u in uniq], np.int32)[inv]
             rejected[grp] = empty
             gap_notes += notes
+            if len(again):
+                repeats.append((again, of))
             del got, grp, inv, empty
     finally:
         checked.close()
+    again = np.concatenate([a for a, _ in repeats]) if repeats else np.empty(0, np.int64)
+    if 0 < len(again) < methours.TWICE_ROWS:     # a few: the clock going back? line reader
+        store.remove()
+        return _REPEAT
+    if len(again):
+        of = np.concatenate([o for _, o in repeats])
+        order = np.argsort(again, kind="stable")            # file order
+        again, of = again[order], of[order]
+        reason_codes[again] = texts.setdefault(REPEAT_REASON, len(texts))
+        rejected[again] = True
     lines = rows.all_lines()
     ledger = Ledger.for_codes(CodedRows(
         str(path), lines, site, ids,
@@ -597,6 +652,9 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour):
     ds = load_small(ds, store)
     release_free_memory()              # the groups' arrays, freed above
     ledger.notes.extend(gap_notes)
+    if len(again):                           # after the gaps, as the line reader
+        ledger.notes.append(repeat_note(SimpleNamespace(path=path), rows.line_of(again),
+                                        rows.line_of(of)))
     add_clock_notes(ds, ledger, catalogue, path, CHECK_ROWS)   # after the gaps, as the line reader
     unknown = [raw_headers[c] for c in raw_headers if c not in set(variables) | {"site", "time"}]
     if unknown:

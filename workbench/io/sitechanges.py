@@ -166,7 +166,11 @@ def check_changes(t: dict, err, notes: list, label: str) -> tuple:
                           "date (2014-04-01) and what (" + ", ".join(CHANGE_KINDS) + ")")
         d = _date(c["date"])
         if d is None:
-            raise err("change date is not a date", j, "date", c["date"],
+            from .table import day_month_readings
+            both = day_month_readings(str(c["date"]).split(" ")[0].split("T")[0])
+            hint = (f" (a date in day/month or month/day order? write year-month-day: {both})"
+                    if both else "")
+            raise err("change date is not a date" + hint, j, "date", c["date"],
                       "a date such as 2014-04-01 (the first day of the new method, UTC)")
         what = c["what"]
         if what not in CHANGE_KINDS:

@@ -329,6 +329,12 @@ def read_sites(path) -> SiteCatalogue:
             raise err("site id with blanks at its ends" if sid else "empty site id", "id", sid,
                       "an id without leading or trailing blanks (the data files' cells are "
                       f"read stripped, so {sid.strip()!r} there would never match it)")
+        if isinstance(sid, str) and sid.startswith("#"):
+            raise err("site id starting with '#'", "id", sid,
+                      "an id starting with a letter or digit (a data file's line starting "
+                      f"with '#' is a comment or a '# key: value' line, so a row of {sid!r} "
+                      "would never be read as data); e.g. "
+                      f"{(sid.lstrip('#').strip() or 'S1')!r}")
         if isinstance(sid, str) and sid in seen:
             raise err("duplicate site id", "id", sid, f"ids unique (first at site {seen[sid] + 1})")
         def table_err(problem, receptor, key, value=None, expected=None, k=k):

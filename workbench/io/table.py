@@ -185,6 +185,44 @@ def parse_iso(text: pd.Series, utc: bool) -> np.ndarray:
     return out
 
 
+#: A date in day/month or month/day order (``01/02/2021``, ``1.2.21``, ``21-01-2021``),
+#: with the rest of the label (a time) after it.
+_DAY_MONTH = re.compile(r"(\d{1,2})([./-])(\d{1,2})\2(\d{4}|\d{2})(?![\d./-])(.*)")
+
+
+def day_month_readings(text: str) -> str:
+    """The ISO 8601 readings of a date written day/month or month/day ("" if none).
+
+    A two-digit year is read in 2000-2099 (our choice: the records we read are of
+    this century; the message shows the reading, so a wrong one is seen).
+
+    >>> day_month_readings("01/02/2021")
+    '2021-02-01 if day first, 2021-01-02 if month first'
+    >>> day_month_readings("21.1.21 14:00")
+    '2021-01-21T14:00 (day first; no month 21)'
+    >>> day_month_readings("2021/01/21")
+    ''
+    """
+    m = _DAY_MONTH.fullmatch(text.strip())
+    if not m:
+        return ""
+    a, b, year, rest = int(m.group(1)), int(m.group(3)), m.group(4), m.group(5).strip()
+    year = int(year) + 2000 if len(year) == 2 else int(year)
+    tail = "T" + rest if re.fullmatch(r"\d\d:\d\d(:\d\d)?", rest) else ""
+
+    def iso(month, day):
+        return f"{year:04d}-{month:02d}-{day:02d}{tail}"
+    day_first, month_first = 1 <= b <= 12 and 1 <= a <= 31, 1 <= a <= 12 and 1 <= b <= 31
+    if day_first and month_first:
+        return (iso(b, a) if a == b else
+                f"{iso(b, a)} if day first, {iso(a, b)} if month first")
+    if day_first:
+        return f"{iso(b, a)} (day first; no month {a})"
+    if month_first:
+        return f"{iso(a, b)} (month first; no month {b})"
+    return "no day/month reading fits; e.g. 2020-01-09T14:00"
+
+
 def end_of_day_note(file_name: str, columns, lines) -> str:
     """The ledger note of the columns whose 24:00 labels were read as the next day's 00:00
     ("" for none), with the count of the rows and their lines (:func:`.ledger.compact_lines`).
@@ -725,9 +763,9 @@ class RawTable:
             elif re.search(r"[T ](?:2[4-9]|[3-9]\d):\d\d", str(s.loc[idx])):
                 hint = (" (an hour of 24 or more? hours run 00-23; only 24:00 may end a "
                         "day)")
-            elif re.match(r"\d{1,2}[./]\d{1,2}[./]\d{2,4}", str(s.loc[idx])):
-                hint = (" (a date in day/month or month/day order? write year-month-day, "
-                        "e.g. 2020-01-09T14:00)")
+            elif day_month_readings(str(s.loc[idx])):
+                hint = (" (a date in day/month or month/day order? write year-month-day: "
+                        + day_month_readings(str(s.loc[idx])) + ")")
             raise self.error("not an ISO 8601 timestamp" + hint, row=int(idx), column=name,
                              value=s.loc[idx], expected="a timestamp such as 2020-01-09T14:00 "
                              "or 2020-01-09T14:00+01:00")
