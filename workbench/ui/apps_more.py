@@ -237,6 +237,9 @@ ANALYSIS_HEADINGS = {"S_trend": "S trend", "N_trend": "N trend",
                      "exceedance_status": "status of the totals",
                      "exceedance_note": "exceedance note"}
 
+#: Columns of sentences in that table (at least WIDE_COLUMN wide: the table scrolls).
+ANALYSIS_WIDE = ("S trend", "N trend", "exceedance note")
+
 
 #: The network's control of the serial correction of the trends' test.
 SERIAL_LABEL = "also the p for correlated years (Hamed-Rao; needs ~25 years)"
@@ -334,9 +337,8 @@ class NetworkOverview(SavedText, widgets.VBox):
         self.analysis_w.value = (f"<b>Trends of the annual totals [{html.escape(unit)} per yr] "
                                  "and critical-load exceedance of the span [eq/ha/yr]</b>"
                                  + (f"<br><i>{html.escape(SERIAL_NOTE)}</i>" if serial else "")
-                                 + "<div style='overflow-x:auto;max-width:100%'>"
-                                 + table_html(self.analysis.rename(columns=ANALYSIS_HEADINGS))
-                                 + "</div>")
+                                 + table_html(self.analysis.rename(columns=ANALYSIS_HEADINGS),
+                                              wide=ANALYSIS_WIDE, fill=True))
 
     def _no_data_html(self) -> str:
         """The sites of sites.toml without any input row: named, not silently left out
