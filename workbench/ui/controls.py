@@ -638,7 +638,29 @@ class SavedText:
         from .saved_hint import APP_CLASS, saved_hint
         self.add_class(APP_CLASS)
         display(self._repr_mimebundle_(), raw=True)
-        display(saved_hint(self.saved_text()), raw=True)
+        text = self.saved_text()
+        handle = display(saved_hint(text), raw=True, display_id=True)
+        if handle is None:                       # no IPython display (a plain script)
+            return
+        # the hint follows what the app shows: a notebook saved after the site or year
+        # was changed named the state of the first drawing ("2023" over an app left on
+        # 2018, seen in chromium after Save and opening again)
+        hints = self.__dict__.setdefault("_saved_hints", [])
+        hints.append([handle, text])
+        if len(hints) == 1:
+            for w in _walk(self):
+                if isinstance(w, widgets.ValueWidget):
+                    w.observe(self._renew_saved_hints, "value")
+
+    def _renew_saved_hints(self, change=None):
+        """Update each :func:`saved_hint` shown of this app whose text is no longer
+        :meth:`saved_text` (one message per change of what the app shows)."""
+        from .saved_hint import saved_hint
+        text = self.saved_text()
+        for entry in self.__dict__.get("_saved_hints", []):
+            if entry[1] != text:
+                entry[0].update(saved_hint(text), raw=True)
+                entry[1] = text
 
 
 def open_with_progress(cls, scenario_path, **kw):
