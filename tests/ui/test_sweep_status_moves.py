@@ -53,3 +53,13 @@ def test_sweep_statuses_words():
                                  "flagged", "complete", "complete"]})
     got = sweep_statuses(t)
     assert got.to_dict() == {1: "filled", 2: "S total flagged"}
+
+
+def test_the_sweep_table_scrolls_in_the_column(app):
+    """Seen with the status column added, 1,000 px window, file browser open: the
+    table's last column was cut at the right (the table's least width widened its
+    widget past the column, as the network's trend table did)."""
+    import re
+    app.run_w.click()
+    style = re.search(r"<div style='([^']*overflow:auto[^']*)'>", app.table_w.value).group(1)
+    assert "width:0;min-width:100%;" in style

@@ -315,7 +315,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         refresh(self.fig, _sized(clf_spec(loads, first["s_dep_eq_ha_yr"],
                                           first["n_dep_eq_ha_yr"], self.path, where,
                                           MODES[mode], ranges=row)))
-        self.table_w.value = table_html(path_display(self.path, lower, lower_n))
+        self.table_w.value = table_html(path_display(self.path, lower, lower_n), fill=True)
         return self.statement
 
 

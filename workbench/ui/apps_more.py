@@ -208,7 +208,8 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         if by_value.nunique() > 1:     # which value each status is at, not only that one is
             show["status of the totals"] = by_value.reindex(show.index).to_numpy()
         self.table_w.value = table_html(show.reset_index().rename(
-            columns={"value": a.label if "[" in a.label else f"{a.label} (setting)"}))
+            columns={"value": a.label if "[" in a.label else f"{a.label} (setting)"}),
+            fill=True)       # a wide table scrolls in the column (its last column was cut)
         self.progress.done("sweep done")
         return self.table
 
