@@ -30,6 +30,11 @@ velocity there.  Each block lays its budget on the network's receptor axis
 wet deposition, dry components missing with Vd coverage 0, the total partial), not a
 fill value: budget.nc is the whole run's, variable by variable
 (tests/test_blocks_layout.py), as budget.csv and summary.csv are.
+
+Where the parts are: the sites in blocks and a block's memory in
+:mod:`workbench.block_sites`; the local dask cluster (:func:`start_client`,
+:class:`ClusterStart`) in :mod:`workbench.block_cluster`.  This module re-exports them
+all, so that ``workbench.blocks.<name>`` keeps working.
 """
 from __future__ import annotations
 

@@ -16,6 +16,12 @@ filled hour is counted.  Everything here is vectorized over sites, receptors, pe
 and hours through cumulative sums along time: no Python loop over hours or periods.
 
 Units: concentrations [mol m-3] or [mol mol-1]; Vd [m s-1]; deposition [mol m-2].
+
+Where the parts are: the diurnal fill of Vd in :mod:`workbench.dryflux_fill`; the
+cumulative sums and :func:`deposition_rows` in :mod:`workbench.dryflux_sums`; the
+reporting periods (:func:`share_to_periods`, :func:`to_periods`, :func:`period_mean`)
+in :mod:`workbench.dryflux_periods`.  This module re-exports them all, so that
+``workbench.dryflux.<name>`` keeps working.
 """
 from __future__ import annotations
 

@@ -10,6 +10,13 @@ site layout of the readers of :mod:`workbench.io`: each cell is a site (a
 heights), the met on (``site``, ``time``) in SI units and the air on ``period``, so
 that the engine functions of the site pipeline run on it unchanged.  Units are
 converted here, once, with pint (:mod:`workbench.units`).
+
+Where the parts are: opening the files, a variable's values, heights, dims, latitude
+and longitude, times and units in :mod:`workbench.grid_read`; :class:`Grid`,
+:func:`open_grid` and :func:`describe` in :mod:`workbench.grid_check`; a block of cells
+(:func:`cut`, :func:`block_catalogue`, :func:`read_block`, :func:`check_cells`) in
+:mod:`workbench.grid_cells`.  This module re-exports them all, so that
+``workbench.grid_io.<name>`` keeps working.
 """
 from __future__ import annotations
 

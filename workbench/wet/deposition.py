@@ -3,6 +3,11 @@
 :func:`wet_deposition` turns screened samples (:func:`workbench.wet.screen`) into a
 Dataset with dims (``site``, ``period``); :func:`to_table` flattens it for export.
 The rules and their sources are in ``docs/methods_wet.md``.
+
+Where the parts are: the samples' pieces and weights (:func:`sample_weights`) in
+:mod:`workbench.wet.deposition_pieces`; the PWMs and the climatology in
+:mod:`workbench.wet.deposition_pwm`; the sea-salt notes in
+:mod:`workbench.wet.deposition_notes`.  This module re-exports them all.
 """
 from __future__ import annotations
 
