@@ -449,12 +449,12 @@ def test_compare_gives_no_percent_of_a_zero_negative_or_missing_first_value(tmp_
     assert got.loc[("N", "dry"), "change_kg_ha_yr"] == pytest.approx(1.0)
     assert np.isnan(got.loc[("N", "dry"), "change_percent"])
     assert got.loc[("N", "dry"), "percent_note"] == ("no percent: the first run's value is "
-                                                     "below 0 (a net emission)")
+                                                     "below 0, a net emission")
     assert np.isnan(got.loc[("N", "wet"), "change_percent"])
     assert got.loc[("N", "wet"), "percent_note"] == "no percent: the first run's value is missing"
     assert not np.isinf(diff["change_percent"]).any()
     # the console's table says the same words
     for words in ("no percent: the first run's value is 0",
-                  "no percent: the first run's value is below 0 (a net emission)",
+                  "no percent: the first run's value is below 0, a net emission",
                   "no percent: the first run's value is missing", "+25.00"):
         assert words in out, words

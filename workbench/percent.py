@@ -62,7 +62,7 @@ def no_percent_reason(old, new, first="the first value", second="the second valu
     >>> no_percent_reason(0.0, 1.0, "the first run's value")
     "no percent: the first run's value is 0"
     >>> no_percent_reason(-2.0, -1.0)
-    'no percent: the first value is below 0 (a net emission)'
+    'no percent: the first value is below 0, a net emission'
     """
     o, n = np.asarray(old, float), np.asarray(new, float)
     o, n = np.broadcast_arrays(o, n)
@@ -70,7 +70,7 @@ def no_percent_reason(old, new, first="the first value", second="the second valu
         [np.isnan(o) & np.isnan(n), np.isnan(o), np.isnan(n), o == 0, o < 0],
         [f"no percent: no value in either ({first}, {second})",
          f"no percent: {first} is missing", f"no percent: {second} is missing",
-         f"no percent: {first} is 0", f"no percent: {first} is below 0 (a net emission)"],
+         f"no percent: {first} is 0", f"no percent: {first} is below 0, a net emission"],
         "")
     out = out.astype(object)
     return str(out) if out.ndim == 0 else out
