@@ -260,3 +260,23 @@ def test_change_line_of_a_base_of_zero_below_zero_or_missing():
     # the words of the percent rule are the same as compare's (workbench.percent)
     from workbench.percent import percent_change
     assert np.isnan(percent_change(-2.0, -1.0)) and np.isnan(percent_change(0.0, 0.3))
+
+
+def test_nh3_line_of_a_deposition_of_zero_says_why_there_is_no_share():
+    """Review of the percent sites: NH3 with no deposition at all (0) but an emission
+    read "emission offsets n/a"; now the reason (no percent of a base of 0).  A
+    deposition of 2 with a net of 1.5 keeps its share: 100 x 0.5 / 2 = 25 % (by hand).
+    Values invented [mol m-2 per period, annual factor 1].  Old code: "offsets n/a"."""
+    import xarray as xr
+
+    def ds(only, net):
+        v = lambda x: (("site", "receptor", "period"), np.full((1, 1, 1), x))  # noqa: E731
+        return xr.Dataset({"nh3_deposition_only": v(only), "nh3_net": v(net),
+                           "annual_factor": v(1.0)},
+                          coords={"site": ["s"], "receptor": ["grass"], "period": ["2020"]},
+                          attrs={"nh3_figure": "net"})
+    line = summaries.nh3_line(ds(0.0, -1e-3), "s", "grass")
+    assert "n/a" not in line
+    assert "no share offset by emission (no percent: the deposition only is 0)" in line
+    ok = summaries.nh3_line(ds(2e-3, 1.5e-3), "s", "grass")
+    assert "emission offsets 25 %" in ok

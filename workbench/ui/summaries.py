@@ -220,9 +220,12 @@ def nh3_line(ds: xr.Dataset, site, receptor, unit="kg/ha/yr") -> str:
     mn = float(np.nanmean(net))
     pct = 100.0 * (mo - mn) / mo if mo > 0 else float("nan")
     # one decimal under 1 %: a changed bar must not read "offsets 0 %"
-    share = "n/a" if not np.isfinite(pct) else f"{pct:.1f} %" if abs(pct) < 1 else f"{pct:.0f} %"
+    if np.isfinite(pct):
+        share = f"emission offsets {pct:.1f} %" if abs(pct) < 1 else f"emission offsets {pct:.0f} %"
+    else:       # no share of a deposition of 0 (it read "offsets n/a" without a reason)
+        share = "no share offset by emission (no percent: the deposition only is 0)"
     return (f"Dry NH3 {_fmt(mn)} {unit} N net (deposition - emission) against {_fmt(mo)} "
-            f"deposition only: emission offsets {share}; the bars and the N totals use the net.")
+            f"deposition only: {share}; the bars and the N totals use the net.")
 
 
 def monthly_amounts(ds_month: xr.Dataset, site, receptor, unit="kg/ha/yr") -> pd.DataFrame:
