@@ -131,3 +131,14 @@ def test_long_records_still_agree_with_pymannkendall(seed, n, phi):
     assert exact_min_p(x) < 1e-28
     ref = mk.hamed_rao_modification_test(x)
     assert hamed_rao(x)[3] == pytest.approx(ref.p, rel=1e-9, abs=1e-15)
+
+
+@pytest.mark.parametrize("n", [10, 20])
+def test_the_floor_is_not_of_short_records_alone(n):
+    """An increasing zig-zag x_t = t + 0.4 (-1)^t (lag-1 residuals of opposite signs):
+    the normal p of the correction is far below 2/n! at 10 and 20 values too, so an
+    empty p below a number of years would not cover it; held at 2/n!."""
+    t = np.arange(n, dtype=float)
+    x = t + 0.4 * (-1.0) ** t
+    p = hamed_rao(x)[3]
+    assert p == pytest.approx(2 / math.factorial(n), rel=1e-12)
