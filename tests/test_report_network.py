@@ -6,6 +6,7 @@ The network is the invented one of benchmarks/analyst_network.py, 10 sites x 2 y
 (copies of the demo's rows, with a site that starts later and one without NH3).  Before
 these sections, a 30-site report ran to 55 screens, with no ranking, 1,500 rows of the
 dry-N bracket, and the same note 22 times ("NO2: not measured at the site")."""
+import io
 import html
 import re
 
@@ -187,3 +188,23 @@ def test_scheme_and_nh3_tables_fold_in_a_network():
     res = SimpleNamespace(table=t)
     assert "<details><summary>Show every period (45 rows)" in "".join(_nh3_html(res, True))
     assert "<details>" not in "".join(_nh3_html(res))
+
+
+def test_scheme_table_gives_no_percent_of_a_total_of_zero_or_below_zero():
+    """Review of the percent sites: report.html's gas-scheme table wrote 100 (b/a - 1),
+    "inf" for a total of 0 under the first scheme and a flipped sign for one below 0
+    (-2 -> -1: "-50"); now no percent there and a "percent note" saying why.  By hand:
+    4 -> 5 is +25 %.  Values invented.  Old code: inf and -50, no note."""
+    from workbench.report import _schemes_html
+    rows = pd.DataFrame({"site": ["p", "q", "r"] * 2, "receptor": "grass", "element": "N",
+                         "species": "all", "pathway": "total", "period": "span",
+                         "flux_kg_ha_yr": [4.0, 0.0, -2.0, 5.0, 0.3, -1.0],
+                         "status": "complete", "scheme": ["a"] * 3 + ["b"] * 3})
+    page = "".join(_schemes_html(rows))
+    assert "inf" not in page and "-50" not in page
+    table = pd.read_html(io.StringIO(page))[0].set_index("site")
+    assert float(table.loc["p", "b - a [%]"]) == pytest.approx(25.0)
+    assert table.loc["q", "percent note"] == "no percent: the total under a is 0"
+    assert table.loc["r", "percent note"] == ("no percent: the total under a is below 0, "
+                                              "a net emission")
+    assert table.loc["q", "b - a [%]"] == "–"

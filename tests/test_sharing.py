@@ -7,6 +7,7 @@ import re
 import shutil
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 import pytest
 
@@ -409,3 +410,51 @@ def test_compare_goes_by_the_content_of_gzip_inputs(tmp_path, capsys):
     out = capsys.readouterr().out
     assert "met: different files" not in out
     assert "inputs: the same files (SHA-256)" in out
+
+
+def _hand_run(folder: Path, rows) -> Path:
+    """A run folder of hand-made budget totals (values invented) and the least
+    provenance.json compare reads."""
+    folder.mkdir()
+    head = "site,receptor,period,element,pathway,species,flux_kg_ha_yr,status\n"
+    (folder / "budget.csv").write_text(head + "\n".join(rows) + "\n")
+    (folder / "provenance.json").write_text(json.dumps(
+        {"version": "0", "inputs": {}, "outputs": ["budget.csv"], "scenario": {}}))
+    return folder
+
+
+def test_compare_gives_no_percent_of_a_zero_negative_or_missing_first_value(tmp_path, capsys):
+    """Review of the run comparison: a total of 0 in the first run gave
+    ``change_percent`` inf (console "+inf", CSV "inf"); one below 0 (net NH3 emission)
+    a percent of its magnitude.  Now NaN with the reason in ``percent_note`` (CSV) and
+    in the console's table.  By hand: 4 -> 5 is +25 %.  Old code: inf, and no
+    percent_note column."""
+    a = _hand_run(tmp_path / "a", [
+        "s1,grass,2020,S,total,all,4.0,complete", "s1,grass,2020,S,dry,all,0.0,complete",
+        "s1,grass,2020,N,dry,all,-2.0,complete", "s1,grass,2020,N,wet,all,,missing"])
+    b = _hand_run(tmp_path / "b", [
+        "s1,grass,2020,S,total,all,5.0,complete", "s1,grass,2020,S,dry,all,0.3,complete",
+        "s1,grass,2020,N,dry,all,-1.0,complete", "s1,grass,2020,N,wet,all,3.0,complete"])
+    table = tmp_path / "changes.csv"
+    assert main(["compare", str(a), str(b), "--csv", str(table)]) == 1
+    out = capsys.readouterr().out
+    assert "inf" not in out
+    diff = pd.read_csv(table, keep_default_na=False, na_values={
+        c: [""] for c in ("a_kg_ha_yr", "b_kg_ha_yr", "change_kg_ha_yr", "change_percent")})
+    got = diff.set_index(["element", "pathway"])
+    assert got.loc[("S", "total"), "change_percent"] == pytest.approx(25.0, rel=1e-12)
+    assert got.loc[("S", "total"), "percent_note"] == ""
+    assert np.isnan(got.loc[("S", "dry"), "change_percent"])
+    assert got.loc[("S", "dry"), "percent_note"] == "no percent: the first run's value is 0"
+    assert got.loc[("N", "dry"), "change_kg_ha_yr"] == pytest.approx(1.0)
+    assert np.isnan(got.loc[("N", "dry"), "change_percent"])
+    assert got.loc[("N", "dry"), "percent_note"] == ("no percent: the first run's value is "
+                                                     "below 0, a net emission")
+    assert np.isnan(got.loc[("N", "wet"), "change_percent"])
+    assert got.loc[("N", "wet"), "percent_note"] == "no percent: the first run's value is missing"
+    assert not np.isinf(diff["change_percent"]).any()
+    # the console's table says the same words
+    for words in ("no percent: the first run's value is 0",
+                  "no percent: the first run's value is below 0, a net emission",
+                  "no percent: the first run's value is missing", "+25.00"):
+        assert words in out, words

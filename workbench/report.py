@@ -11,6 +11,7 @@ import pandas as pd
 
 from . import __version__
 from .budget import OMISSIONS
+from .percent import no_percent_reason, percent_change
 from .runpaths import scenario_base, shown_path, shown_text
 from .report_network import (NETWORK_SITES, fold, grouped_free_notes, grouped_notes,
                              network_section)
@@ -256,7 +257,14 @@ def _schemes_html(all_schemes, network=False) -> list:
         out[f"{n} [kg/ha/yr]"] = wide[n]
         out[f"{n} status"] = stat[n].fillna("missing")
     if len(names) > 1:
-        out[f"{names[1]} - {names[0]} [%]"] = 100 * (wide[names[1]] / wide[names[0]] - 1)
+        # a percent of the first scheme's total only where it is above 0 (a total of 0
+        # read "inf", one below 0 had its sign flipped); the reason where there is none
+        a, b = wide[names[0]].to_numpy(float), wide[names[1]].to_numpy(float)
+        out[f"{names[1]} - {names[0]} [%]"] = percent_change(a, b)
+        why = no_percent_reason(a, b, f"the total under {names[0]}",
+                                f"the total under {names[1]}")
+        if any(why):
+            out["percent note"] = why
     return ["<h2 id='schemes'>Gas scheme comparison: whole-span totals [kg/ha/yr of S or N]</h2>",
             "<p>The same inputs under each gas scheme: the difference is a structural "
             "uncertainty of dry deposition (two published schemes, both defensible). "

@@ -16,6 +16,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from .percent import no_percent_reason, percent_change
 from .runcheck import (Lines, RunRecordError, option_differences, read_provenance,
                        short_digest, show)
 
@@ -23,6 +24,9 @@ __all__ = ["Comparison", "compare_runs", "budget_differences", "table_difference
 
 #: The keys of a budget total in budget.csv.
 KEYS = ["site", "receptor", "period", "element", "pathway"]
+
+#: What the two values of a budget difference are called in its ``percent_note``.
+RUN_WORDS = ("the first run's value", "the second run's value")
 
 #: Rows of the budget differences printed by default (``--all`` prints every one).
 SHOWN_ROWS = 20
@@ -56,8 +60,10 @@ def budget_differences(a, b, rtol: float = 0.0) -> tuple[pd.DataFrame, dict]:
     -------
     (DataFrame, dict)
         The differing totals: :data:`KEYS`, ``a_kg_ha_yr``, ``b_kg_ha_yr``,
-        ``change_kg_ha_yr`` (b - a), ``change_percent``, ``a_status``, ``b_status``,
-        largest change first; and counts: ``shared`` totals, ``only_a``, ``only_b``
+        ``change_kg_ha_yr`` (b - a), ``change_percent`` (of a, where a > 0: NaN for a
+        base of 0, below 0 or missing), ``percent_note`` (why there is no percent,
+        e.g. "no percent: the first run's value is 0"; empty where there is one),
+        ``a_status``, ``b_status``, largest change first; and counts: ``shared`` totals, ``only_a``, ``only_b``
         (keys in one run only, e.g. other periods or receptors).
     """
     ta, tb = _totals(Path(a)), _totals(Path(b))
@@ -72,8 +78,11 @@ def budget_differences(a, b, rtol: float = 0.0) -> tuple[pd.DataFrame, dict]:
     out = pd.DataFrame({**{k: d[k] for k in KEYS},
                         "a_kg_ha_yr": d["flux_kg_ha_yr_a"], "b_kg_ha_yr": d["flux_kg_ha_yr_b"]})
     out["change_kg_ha_yr"] = out["b_kg_ha_yr"] - out["a_kg_ha_yr"]
-    with np.errstate(divide="ignore", invalid="ignore"):
-        out["change_percent"] = 100 * out["change_kg_ha_yr"] / out["a_kg_ha_yr"].abs()
+    # no percent of a base of 0 ("inf %" before), below 0 or missing: NaN and the
+    # reason in words (workbench.percent, docs/budget.md "Changes in percent")
+    out["change_percent"] = percent_change(out["a_kg_ha_yr"], out["b_kg_ha_yr"])
+    out["percent_note"] = no_percent_reason(out["a_kg_ha_yr"], out["b_kg_ha_yr"],
+                                            *RUN_WORDS)
     out["a_status"], out["b_status"] = d["status_a"].to_numpy(), d["status_b"].to_numpy()
     out = out.iloc[np.argsort(-out["change_kg_ha_yr"].abs().fillna(np.inf).to_numpy(),
                               kind="stable")].reset_index(drop=True)

@@ -236,3 +236,47 @@ def test_dry_figures_plot_the_rows_of_their_tables(result):
     for i, tr in enumerate(fig.data):
         rows = r[(r["resistance"] == names[i // 4]) & (r["season"] == seasons[i % 4])]
         np.testing.assert_allclose(np.asarray(tr.y, float), rows["value"].to_numpy(), rtol=1e-12)
+
+
+def test_change_line_of_a_base_of_zero_below_zero_or_missing():
+    """Review of the change line: from a value below 0 (net NH3 emission) the percent
+    flipped its sign (-2 -> -1, a rise of 1 and less emission, read "-50.0 %"); from 0
+    or from a missing value it said nothing of the change.  Now the absolute change,
+    words and the reason there is no percent (workbench.percent; by hand: -1 - -2 = +1,
+    0.3 - 0 = +0.3, 0.5 - -1 = +1.5).  Old code: "-50.0 %", "" and ""."""
+    idx = ["N_dry", "S_dry", "N_wet", "S_total", "N_total", "S_wet"]
+    a = pd.DataFrame({"value": [-2.0, 0.0, np.nan, 8.3, -1.0, -1.0],
+                      "status": "complete"}, index=idx)
+    b = a.assign(value=[-1.0, 0.3, 3.0, 7.9, 0.5, -1.0])
+    line = summaries.change_line(a, b, totals=tuple(idx))
+    assert "%" not in line.replace("S total 8.3 -> 7.9 kg/ha/yr, -4.8 %", "")
+    assert ("N dry -2.0 -> -1.0 kg/ha/yr, +1.0 kg/ha/yr (less net emission; no percent: "
+            "the value before is below 0, a net emission)") in line
+    assert ("S dry 0.0 -> 0.3 kg/ha/yr, +0.3 kg/ha/yr (no percent: the value before "
+            "is 0)") in line
+    assert "N wet n/a -> 3.0 kg/ha/yr (no percent: the value before is missing)" in line
+    assert "N total -1.0 -> 0.5 kg/ha/yr, +1.5 kg/ha/yr (from net emission to net deposition" in line
+    assert "S wet -1.0 -> -1.0 kg/ha/yr, no change" in line
+    # the words of the percent rule are the same as compare's (workbench.percent)
+    from workbench.percent import percent_change
+    assert np.isnan(percent_change(-2.0, -1.0)) and np.isnan(percent_change(0.0, 0.3))
+
+
+def test_nh3_line_of_a_deposition_of_zero_says_why_there_is_no_share():
+    """Review of the percent sites: NH3 with no deposition at all (0) but an emission
+    read "emission offsets n/a"; now the reason (no percent of a base of 0).  A
+    deposition of 2 with a net of 1.5 keeps its share: 100 x 0.5 / 2 = 25 % (by hand).
+    Values invented [mol m-2 per period, annual factor 1].  Old code: "offsets n/a"."""
+    import xarray as xr
+
+    def ds(only, net):
+        v = lambda x: (("site", "receptor", "period"), np.full((1, 1, 1), x))  # noqa: E731
+        return xr.Dataset({"nh3_deposition_only": v(only), "nh3_net": v(net),
+                           "annual_factor": v(1.0)},
+                          coords={"site": ["s"], "receptor": ["grass"], "period": ["2020"]},
+                          attrs={"nh3_figure": "net"})
+    line = summaries.nh3_line(ds(0.0, -1e-3), "s", "grass")
+    assert "n/a" not in line
+    assert "no share offset by emission (no percent: the deposition only is 0)" in line
+    ok = summaries.nh3_line(ds(2e-3, 1.5e-3), "s", "grass")
+    assert "emission offsets 25 %" in ok

@@ -1,4 +1,6 @@
 """The gas schemes side by side: seasonal Vd by scheme and the budget difference."""
+import json
+
 import numpy as np
 import pandas as pd
 import pytest
@@ -64,11 +66,50 @@ def test_spread_sentence_by_hand():
     assert s == ("Dry N differs by 23 % and dry S by 5 % between the two published gas "
                  "schemes (zhang2003 minus wesely1989: +2.3 kg N ha-1 yr-1, "
                  "-0.1 kg S ha-1 yr-1).")
-    t.loc["N dry", ["wesely1989", "percent"]] = [0.0, np.nan]
-    assert fs.spread_sentence(t).startswith("Dry S differs by 5 %")
+    t.loc["N dry", ["wesely1989", "difference", "percent"]] = [0.0, 12.3, np.nan]
+    # no percent of 0: the reason, and the difference beside the others' (it said
+    # nothing of dry N before the 2026-12 review)
+    assert fs.spread_sentence(t) == (
+        "Dry N differs (no percent: the value under wesely1989 is 0) and dry S by 5 % "
+        "between the two published gas schemes (zhang2003 minus wesely1989: "
+        "+12.3 kg N ha-1 yr-1, -0.1 kg S ha-1 yr-1).")
     spec = fs.budget_change_spec(t, "a", "grass")
     assert spec["data"][0]["y"] == ["S dry", "N dry"]
-    assert spec["data"][0]["text"] == ["-5 %", ""]
+    assert spec["data"][0]["text"] == ["-5 %", "no %"]
+    assert spec["data"][0]["customdata"][1][3] == "no percent: the value under wesely1989 is 0"
+
+
+def test_no_percent_of_a_dry_n_below_zero(monkeypatch):
+    """Review of the scheme tab: a dry N below 0 under A (net NH3 emission larger than
+    the deposition of the other gases) gave a percent of a negative base, its sign
+    flipped: -2 -> -1 (B deposits 1 more, by hand) read "-50 %".  Now no percent, the
+    reason in the table, the bar's hover and the sentence; a base above 0 keeps its
+    percent (by hand 100 x (12 - 10) / 10 = +20 %).  Old code: -50 and no
+    percent_note."""
+    from workbench.ui import summaries
+    values = {"wesely1989": {"N_dry": -2.0, "S_dry": 10.0},
+              "zhang2003": {"N_dry": -1.0, "S_dry": 12.0}}
+
+    def mean_totals(ds, *args):          # the scheme's totals as the table reads them
+        return pd.DataFrame({"value": pd.Series(values[ds])})
+
+    def component_rates(ds, *args):       # no dry component rows
+        return pd.DataFrame(columns=["pathway", "element", "species", "value"])
+    monkeypatch.setattr(summaries, "mean_totals", mean_totals)
+    monkeypatch.setattr(summaries, "component_rates", component_rates)
+    t = fs.scheme_budget_table({s: s for s in values}, "a", "grass")
+    t = t.loc[["N dry", "S dry"]]
+    assert t.loc["N dry", "percent_note"] == ("no percent: the value under wesely1989 is "
+                                              "below 0, a net emission")
+    assert np.isnan(t.loc["N dry", "percent"])
+    assert t.loc["S dry", "percent"] == pytest.approx(20.0)
+    s = fs.spread_sentence(t)
+    assert s.startswith("Dry N differs (no percent: the value under wesely1989 is below 0, "
+                        "a net emission) and dry S by 20 %"), s
+    assert "+1 kg N ha-1 yr-1" in s
+    spec = fs.budget_change_spec(t, "a", "grass")
+    assert spec["data"][0]["text"] == ["+20 %", "no %"]
+    assert "-50" not in json.dumps(spec)
 
 
 def test_small_differences_keep_their_digits():

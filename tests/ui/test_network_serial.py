@@ -32,7 +32,10 @@ def test_the_control_adds_the_corrected_p_and_its_caution(app):
     try:
         text = app.analysis.set_index("site").loc["ridge", "S_trend"]
         assert text != plain
-        m = re.search(r"; p ([0-9.eE+-]+) if the years are correlated \(Hamed-Rao\), "
+        # (the demo's 4 years of S: the correction gave less than the smallest p of 4
+        # values, 2/4! = 0.083, and the text says that p is held there)
+        m = re.search(r"; p ([0-9.eE+-]+) if the years are correlated \(Hamed-Rao(; the "
+                      r"smallest p of any order of \d+ values, the correction gave less)?\), "
                       r"weak: (\d+) years, needs ~25", text)
         assert m, text
         # the p shown is trends.csv's p_value_hamed_rao of the same annual totals
@@ -44,7 +47,8 @@ def test_the_control_adds_the_corrected_p_and_its_caution(app):
         tr = trend_table(years, serial_correction="hamed_rao")
         row = tr[(tr["element"] == "S") & (tr["values"] == "all")].iloc[0]
         assert m.group(1) == f"{row['p_value_hamed_rao']:.2g}"
-        assert int(m.group(2)) == int(row["n_years"]) < 25
+        assert int(m.group(3)) == int(row["n_years"]) < 25
+        assert bool(m.group(2)) == ("held at" in row["note"])
         assert text.startswith(plain.split(" (p ")[0])         # the slope as it was
         assert SERIAL_NOTE.split(":")[0] in app.analysis_w.value
         app.unit_w.value = "eq/ha/yr"                           # a unit keeps the second p
@@ -68,3 +72,19 @@ def test_a_long_record_gets_the_corrected_p_without_the_caution():
     assert plain == "-0.2 kg S/ha/yr per yr (p 0.01)"
     assert text == "-0.2 kg S/ha/yr per yr (p 0.01; p 0.12 if the years are correlated (Hamed-Rao))"
     assert "weak" in serial_text(0.12, 24) and "weak" not in serial_text(0.12, 25)
+
+
+def test_a_corrected_p_held_at_its_smallest_says_so():
+    """The review's six values (corrected p 1e-8 where no order of six values goes below
+    8/720): the trend's text says the p is the smallest any order allows.  Old code:
+    "p 1e-08 if the years are correlated"."""
+    from workbench.ui.apps_analysis import network_analysis_table
+    parts = pd.DataFrame([{
+        "site": "a", "receptor": "grass", "ex_acidity_eq_ha_yr": np.nan,
+        "ex_nutrient_n_eq_ha_yr": np.nan, "exceedance_status": "", "exceedance_note": "",
+        **{f"{el}_{k}": v for el in ("S", "N") for k, v in (
+            ("slope_kg_ha_yr", -0.5), ("p", 0.019), ("valid", False), ("n_years", 6.0),
+            ("method_changes", ""), ("p_hamed_rao", 8 / 720), ("p_hamed_rao_held", True))}}])
+    text = network_analysis_table({}, None, parts=parts, serial=True)["S_trend"].iloc[0]
+    assert ("p 0.011 if the years are correlated (Hamed-Rao; the smallest p of any order "
+            "of 6 values, the correction gave less), weak: 6 years, needs ~25") in text

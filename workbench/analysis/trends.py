@@ -18,7 +18,7 @@ from typing import NamedTuple
 import numpy as np
 
 from .trend_changes import CHANGE_NOTE, _change_columns, change_notes  # noqa: F401
-from .trends_batch import EXACT_MAX_N, exact_p  # noqa: F401  (the exact p of few values)
+from .trends_batch import EXACT_MAX_N, exact_min_p, exact_p  # noqa: F401  (few values)
 from .trends_batch import (SEASON_SHARE, TIE_RTOL, _average_ranks,  # noqa: F401
                            _detrended, seasonal_years)
 
@@ -202,6 +202,11 @@ def hamed_rao(x, t=None, alpha=ALPHA):
         p (exact for few values), and so on an exact straight line (the detrended
         values all equal: no autocorrelation to measure); fewer than 3 values, all
         values equal, or a factor <= 0 (strong negative correlation): NaN (no test).
+        The p is never below :func:`exact_min_p` of the values, the smallest p any
+        order of them allows: a strong negative correlation of few values shrinks
+        Var(S) so far that the normal p fell below it (six values 5, 4, 4, 3, 3, 2 gave
+        1e-8, as pymannkendall does, where no order of them goes below 8/720); such a
+        p is held there (z is the corrected score as computed).
 
     References
     ----------
@@ -209,6 +214,13 @@ def hamed_rao(x, t=None, alpha=ALPHA):
     data. J. Hydrol. 204, 182-196 (eq. of n/n* as above; from memory, checked against
     pymannkendall's ``hamed_rao_modification_test`` in tests/analysis/test_trend_hamed_rao.py).
     """
+    factor, var_s, z, p = _hamed_rao(x, t, alpha)
+    p_min = exact_min_p(np.asarray(x, float))
+    return factor, var_s, z, (p_min if np.isfinite(p) and p < p_min else p)
+
+
+def _hamed_rao(x, t=None, alpha=ALPHA):
+    """:func:`hamed_rao` before its p is held at :func:`exact_min_p`."""
     x = np.asarray(x, float)
     t = np.arange(x.size, dtype=float) if t is None else np.asarray(t, float)
     plain = mann_kendall(x, t, alpha)
@@ -394,7 +406,13 @@ def _note(variant, few, min_years, excluded, dl, flags=()) -> str:
 #: the monthly rows, whose test has the Hirsch-Slack correction): column -> field of
 #: :func:`.trends_batch.hamed_rao_batch` as stored beside the plain statistics.
 HAMED_RAO_COLUMNS = {"hamed_rao_factor": "hr_factor", "var_s_hamed_rao": "hr_var_s",
-                     "z_hamed_rao": "hr_z", "p_value_hamed_rao": "hr_p_value"}
+                     "z_hamed_rao": "hr_z", "p_value_hamed_rao": "hr_p_value",
+                     "p_min_exact": "hr_p_min"}
+#: The note of a row whose corrected p was below the smallest p any order of its
+#: values allows (:func:`exact_min_p`) and is held there.
+P_HELD = ("corrected p (Hamed-Rao) held at {p_min:.2g}, the smallest p any order of "
+          "these {n} values allows (exact permutation distribution of S); the correction "
+          "gave {raw:.2g}, which {n} values cannot support")
 #: Values of ``serial_correction`` of :func:`trend_table`.
 SERIAL_CORRECTIONS = (None, "hamed_rao")
 
@@ -514,6 +532,9 @@ def _table_rows(keys, series, stats_by_variant, min_years, excluded, dl, gaps=No
                  "method_changes": np.full(n.size, "", dtype=object)})
     if "hr_p_value" in st:
         cols.update({c: st[k] for c, k in HAMED_RAO_COLUMNS.items()})
+        for i in np.flatnonzero(st["hr_p_held"].astype(bool)):
+            cols["note"][i] += "; " + P_HELD.format(p_min=st["hr_p_min"][i], n=int(n[i]),
+                                                    raw=st["hr_p_raw"][i])
     return cols
 
 
@@ -586,8 +607,15 @@ def _annual_rows_per_series(y, dl_notes, min_years, alpha, serial=None):
                              np.median(x[use]) if use.any() else np.nan, excluded, dl,
                              np.min(x[use]) if use.any() else np.nan, gaps))
             if serial == "hamed_rao":
-                hr = hamed_rao(np.where(use, x, np.nan), years.astype(float), alpha)
-                rows[-1].update(zip(HAMED_RAO_COLUMNS, hr))
+                factor, var_s, z, raw = _hamed_rao(np.where(use, x, np.nan),
+                                                   years.astype(float), alpha)
+                p_min = exact_min_p(x[use])
+                held = bool(np.isfinite(raw) and raw < p_min)
+                rows[-1].update(zip(HAMED_RAO_COLUMNS, (factor, var_s, z,
+                                                        p_min if held else raw, p_min)))
+                if held:
+                    rows[-1]["note"] += "; " + P_HELD.format(p_min=p_min, n=int(use.sum()),
+                                                             raw=raw)
     return rows
 
 

@@ -115,6 +115,43 @@ def exact_p(n, s, var_s):
     return np.where(ok, _EXACT_P[ni, np.minimum(si, _EXACT_P.shape[1] - 1)], np.nan)
 
 
+def exact_min_p(x):
+    """The smallest two-sided p that the exact permutation distribution of the
+    Mann-Kendall S allows for the values of `x` (each row, last axis; NaN left out) [1].
+
+    Under no trend every order of the n values is equally likely; of the n!/prod(u_p!)
+    distinct orders of values with tie groups of sizes u_p, one is increasing and one
+    decreasing, the two with the largest |S|.  The smallest p an order can have is
+    therefore ``min(1, 2 prod(u_p!) / n!)``: 2/n! without ties (2/720 = 0.0028 for six
+    values), the p of :func:`exact_p`'s table at the largest |S|
+    (tests/analysis/test_trend_min_p.py enumerates the orders).  NaN with fewer than
+    2 values or all values tied (no test).  With tied times (several values in one
+    year) more orders reach the largest |S|, so the value is then a lower bound of the
+    smallest p.
+
+    >>> float(exact_min_p([5.0, 4.0, 4.0, 3.0, 3.0, 2.0])) * 720     # 2 x 2! x 2!
+    8.0
+    """
+    a = np.atleast_2d(np.asarray(x, float))
+    n = np.sum(~np.isnan(a), axis=1)
+    m = a.shape[-1]
+    log_fact = np.concatenate([[0.0], np.cumsum(np.log(np.arange(1, m + 1)))])
+    out = np.full(a.shape[0], np.nan)
+    if m:
+        s = np.sort(a, axis=1)                                   # NaN last
+        valid = ~np.isnan(s)
+        start = np.ones(s.shape, bool)
+        start[:, 1:] = s[:, 1:] != s[:, :-1]
+        run = np.cumsum(start, axis=1) - 1
+        rows = a.shape[0]
+        gid = (np.arange(rows)[:, None] * m + run)[valid]
+        u = np.bincount(gid, minlength=rows * m).reshape(rows, m)
+        groups = np.sum(u > 0, axis=1)
+        log_p = np.log(2.0) + np.sum(log_fact[u], axis=1) - log_fact[n]
+        out = np.where((n >= 2) & (groups >= 2), np.minimum(1.0, np.exp(log_p)), np.nan)
+    return float(out[0]) if np.ndim(x) <= 1 else out
+
+
 def median_rows(a) -> np.ndarray:
     """Median of the values of each row, NaN left out (NaN for a row without values).
 
@@ -344,7 +381,9 @@ def hamed_rao_batch(x, t, plain, alpha) -> dict:
     -------
     dict of ndarray, shape (series,)
         ``factor`` (n/n* [1]), ``var_s``, ``z``, ``p_value`` of the corrected test
-        (NaN: no test).
+        (NaN: no test), the p never below ``p_min`` (:func:`exact_min_p`, the smallest
+        p any order of the row's values allows); ``p_held`` (bool: the corrected p was
+        below it and is held there) and ``p_raw`` (the corrected p before that).
     """
     x = np.asarray(x, float)
     t = np.asarray(t, float)
@@ -387,4 +426,7 @@ def hamed_rao_batch(x, t, plain, alpha) -> dict:
     same = factor == 1.0                    # no lag counts: the plain test (its exact p)
     z = np.where(same, plain["z"], np.where(np.isnan(var_s), np.nan, z))
     p = np.where(same, plain["p_value"], np.where(np.isnan(var_s), np.nan, p))
-    return {"factor": factor, "var_s": var_s, "z": z, "p_value": p}
+    p_min = exact_min_p(x)
+    held = np.isfinite(p) & (p < p_min)     # below what any order of the values allows
+    return {"factor": factor, "var_s": var_s, "z": z, "p_value": np.where(held, p_min, p),
+            "p_min": p_min, "p_held": held, "p_raw": p}

@@ -469,7 +469,9 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
             factor = float(to_unit(1.0, el, unit) / to_unit(1.0, el, "kg/ha/yr"))
             row[f"{el}_trend"] = (
                 f"{slope * factor:+.3g} {trend_unit(el, unit)} per yr (p {p[f'{el}_p']:.2g}"
-                + (serial_text(p.get(f"{el}_p_hamed_rao", np.nan), n) if serial else "")
+                + (serial_text(p.get(f"{el}_p_hamed_rao", np.nan), n,
+                               bool(p.get(f"{el}_p_hamed_rao_held", False)))
+                   if serial else "")
                 + ("" if p[f"{el}_valid"] else
                    f"; indicative only: {years_text}, a valid trend needs {MIN_YEARS}")
                 + (f"; crosses a change of method: {p[f'{el}_method_changes']}"
@@ -492,18 +494,24 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
 SERIAL_MIN_YEARS = 25
 
 
-def serial_text(p_corrected: float, n_years: int) -> str:
+def serial_text(p_corrected: float, n_years: int, held: bool = False) -> str:
     """The words a trend gains with the serial correction: the corrected p, and the
-    caution where the record is shorter than :data:`SERIAL_MIN_YEARS` years.
+    caution where the record is shorter than :data:`SERIAL_MIN_YEARS` years.  `held`:
+    the corrected p is held at the smallest p any order of the `n_years` values allows
+    (trends.csv's ``p_min_exact``; the correction gave less).
 
     >>> serial_text(0.31, 8)
     '; p 0.31 if the years are correlated (Hamed-Rao), weak: 8 years, needs ~25'
+    >>> serial_text(8 / 720, 6, held=True)
+    '; p 0.011 if the years are correlated (Hamed-Rao; the smallest p of any order of 6 values, the correction gave less), weak: 6 years, needs ~25'
     >>> serial_text(float("nan"), 30)
     '; no correlated-years test (too few or tied values)'
     """
     if not np.isfinite(p_corrected):
         return "; no correlated-years test (too few or tied values)"
-    out = f"; p {p_corrected:.2g} if the years are correlated (Hamed-Rao)"
+    out = (f"; p {p_corrected:.2g} if the years are correlated (Hamed-Rao"
+           + (f"; the smallest p of any order of {n_years} values, the correction gave less)"
+              if held else ")"))
     if n_years < SERIAL_MIN_YEARS:
         out += f", weak: {n_years} years, needs ~{SERIAL_MIN_YEARS}"
     return out
@@ -537,8 +545,10 @@ def network_analysis_parts(results: dict, catalogue,
 
     `serial_correction`: ``"hamed_rao"`` adds ``{el}_p_hamed_rao`` (trends.csv's
     ``p_value_hamed_rao``: the annual test's p with the variance correction of Hamed and
-    Rao 1998 for serially correlated years; NaN where no test) per element; None (the
-    default) leaves it out.
+    Rao 1998 for serially correlated years; NaN where no test) and
+    ``{el}_p_hamed_rao_held`` (True where that p is held at the smallest p any order of
+    the values allows, trends.csv's ``p_min_exact``) per element; None (the default)
+    leaves them out.
 
     Returns
     -------
@@ -555,7 +565,7 @@ def network_analysis_parts(results: dict, catalogue,
     import pandas as pd
 
     from ..analysis.exceedance import NO_CRITICAL_LOADS, exceedance_table
-    from ..analysis.trends import change_notes, trend_table
+    from ..analysis.trends import P_HELD, change_notes, trend_table
     rows = []
     for site, res in results.items():
         own = catalogue[site].land_use
@@ -575,6 +585,10 @@ def network_analysis_parts(results: dict, catalogue,
             row[f"{el}_n_years"] = float(r.get("n_years", np.nan))
             if serial_correction:
                 row[f"{el}_p_hamed_rao"] = float(r.get("p_value_hamed_rao", np.nan))
+                # held at the smallest p any order of the values allows (trends.csv's
+                # p_min_exact; its note says so): the correction asked for less.  Not
+                # p == p_min: the plain exact p of a monotone series is that p too
+                row[f"{el}_p_hamed_rao_held"] = P_HELD.split("{")[0] in str(r.get("note", ""))
             changes = r.get("method_changes", "")
             row[f"{el}_method_changes"] = changes if isinstance(changes, str) else ""
         ex = exceedance_table(res, catalogue)

@@ -12,6 +12,7 @@ import json
 import numpy as np
 import pandas as pd
 
+from ..percent import no_percent_reason, percent_change
 from ..periods import MONTH_SEASON, SEASON_NAMES
 from .figures import from_spec, subplot_layout
 from .palette import TEMPLATE
@@ -197,7 +198,9 @@ def scheme_budget_table(years_by_scheme: dict, site, receptor, unit="kg/ha/yr") 
     pandas.DataFrame
         One row per total (``S dry``, ``S total``, ``N dry``, ``N total``) then per dry
         component (``dry SO2`` ...); columns ``element``, one per scheme [unit],
-        ``difference`` (B minus A) [unit] and ``percent`` (of A) [%].
+        ``difference`` (B minus A) [unit], ``percent`` (of A, where A is above 0;
+        NaN from 0, below 0 or missing: :mod:`workbench.percent`) [%] and
+        ``percent_note`` (why there is no percent; empty where there is one).
     """
     from .summaries import component_rates, mean_totals
     schemes = list(years_by_scheme)
@@ -222,8 +225,11 @@ def scheme_budget_table(years_by_scheme: dict, site, receptor, unit="kg/ha/yr") 
     a, b = schemes
     out.insert(0, "element", pd.Series(element))
     out["difference"] = out[b] - out[a]
-    with np.errstate(divide="ignore", invalid="ignore"):
-        out["percent"] = np.where(out[a] != 0, 100.0 * out["difference"] / out[a], np.nan)
+    # a percent of A only where A is above 0 (workbench.percent): a dry N below 0 (net
+    # NH3 emission) flipped its sign, and a 0 under A left the bar without a word
+    out["percent"] = percent_change(out[a].to_numpy(float), out[b].to_numpy(float))
+    out["percent_note"] = no_percent_reason(out[a].to_numpy(float), out[b].to_numpy(float),
+                                            f"the value under {a}", f"the value under {b}")
     return out
 
 
@@ -247,44 +253,74 @@ def amount_text(v: float) -> str:
     return "0" if v == 0 else f"{v:+.3g}"
 
 
+def _scheme_columns(table: pd.DataFrame) -> list:
+    """The two schemes' columns of a :func:`scheme_budget_table` (A, B)."""
+    return [c for c in table.columns
+            if c not in ("element", "difference", "percent", "percent_note")]
+
+
+def _percent_notes(table: pd.DataFrame) -> pd.Series:
+    """``percent_note`` of the table, made from A and B where a table has none."""
+    if "percent_note" in table:
+        return table["percent_note"].fillna("").astype(str)
+    a, b = _scheme_columns(table)
+    return pd.Series(no_percent_reason(table[a].to_numpy(float), table[b].to_numpy(float),
+                                       f"the value under {a}", f"the value under {b}"),
+                     index=table.index)
+
+
 def spread_sentence(table: pd.DataFrame, unit="kg/ha/yr") -> str:
     """One plain sentence on how far the two schemes' dry N and dry S lie apart.
 
-    `table` as :func:`scheme_budget_table` gives it.
+    `table` as :func:`scheme_budget_table` gives it.  An element without a percent
+    (its value under A is 0, below 0 or missing: :mod:`workbench.percent`) is named
+    with the reason, its difference in the unit beside the others'.
     """
     from .summaries import axis_text
-    a, b = [c for c in table.columns if c not in ("element", "difference", "percent")]
-    known = [(el, table.loc[f"{el} dry", "percent"], table.loc[f"{el} dry", "difference"])
-             for el in ("N", "S") if np.isfinite(table.loc[f"{el} dry", "percent"])]
+    a, b = _scheme_columns(table)
+    notes = _percent_notes(table)
+    known = [(el, table.loc[f"{el} dry", "percent"], table.loc[f"{el} dry", "difference"],
+              notes.loc[f"{el} dry"])
+             for el in ("N", "S") if np.isfinite(table.loc[f"{el} dry", "difference"])]
     if not known:
         return (f"Dry N and S cannot be compared between the two published gas schemes "
-                f"(none under {a}).")
-    words = [f"Dry {el} differs by {percent_text(p, sign=False)}" if i == 0
-             else f"dry {el} by {percent_text(p, sign=False)}"
-             for i, (el, p, _) in enumerate(known)]
-    amounts = [f"{amount_text(d)} {axis_text(unit, element=el)}" for el, _, d in known]
+                f"(none under both {a} and {b}).")
+
+    def by(p, note):
+        return f"by {percent_text(p, sign=False)}" if np.isfinite(p) else f"({note})"
+    words = [f"Dry {el} differs {by(p, note)}" if i == 0 else f"dry {el} {by(p, note)}"
+             for i, (el, p, _, note) in enumerate(known)]
+    amounts = [f"{amount_text(d)} {axis_text(unit, element=el)}" for el, _, d, _ in known]
     return (f"{' and '.join(words)} between the two published gas schemes "
             f"({b} minus {a}: {', '.join(amounts)}).")
 
 
+#: The text beside a bar without a percent (its hover gives the reason).
+NO_PERCENT_TEXT = "no %"
+
+
 def budget_change_spec(table: pd.DataFrame, site, receptor, unit="kg/ha/yr") -> dict:
     """Spec of horizontal bars: budget of scheme B minus scheme A, each total and dry
-    component [unit], with the percentage of A beside each bar."""
+    component [unit], with the percentage of A beside each bar (``no %`` where A is 0,
+    below 0 or missing, the reason in the bar's hover)."""
     from .summaries import axis_text
-    a, b = [c for c in table.columns if c not in ("element", "difference", "percent")]
+    a, b = _scheme_columns(table)
     rows = list(table.index)[::-1]                        # the totals on top
     t = table.loc[rows]
+    notes = _percent_notes(t)
     x = [None if not np.isfinite(v) else float(v) for v in t["difference"]]
-    text = ["" if not np.isfinite(p) else percent_text(p) for p in t["percent"]]
-    custom = [[float(t.loc[r, a]), float(t.loc[r, b]), axis_text(unit, element=t.loc[r, "element"])]
-              for r in rows]
+    # no percent (A 0, below 0 or missing): "no %" beside the bar, the reason in its hover
+    text = [NO_PERCENT_TEXT if not np.isfinite(p) else percent_text(p) for p in t["percent"]]
+    hover = [percent_text(p) if np.isfinite(p) else n for p, n in zip(t["percent"], notes)]
+    custom = [[float(t.loc[r, a]), float(t.loc[r, b]), axis_text(unit, element=t.loc[r, "element"]),
+               h] for r, h in zip(rows, hover)]
     colours = [SCHEME_COLOURS.get(b, "#999999") if (v or 0) >= 0 else SCHEME_COLOURS.get(a, "#999999")
                for v in x]
     trace = {"type": "bar", "orientation": "h", "y": rows, "x": x, "text": text,
              "textposition": "outside", "name": f"{b} minus {a}", "customdata": custom,
              "marker": {"color": colours},
              "hovertemplate": (f"%{{y}}: {a} %{{customdata[0]:.3g}}, {b} %{{customdata[1]:.3g}} "
-                               f"%{{customdata[2]}}; difference %{{x:.3g}} (%{{text}})<extra></extra>")}
+                               f"%{{customdata[2]}}; difference %{{x:.3g}} (%{{customdata[3]}})<extra></extra>")}
     return {"data": [trace], "layout": {
         "height": 60 + 26 * len(rows), "showlegend": False,
         "title": {"text": f"{site}, {receptor}:<br>budget under {b} minus under {a}"},

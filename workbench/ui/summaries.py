@@ -10,6 +10,7 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
+from ..percent import emission_words, no_percent_reason, percent_change
 from ..periods import MONTH_SEASON, SEASON_NAMES
 from ..units import element_deposition_in
 from .no_effect import PARTICLES, no_effect_text  # noqa: F401  (its home before)
@@ -219,9 +220,12 @@ def nh3_line(ds: xr.Dataset, site, receptor, unit="kg/ha/yr") -> str:
     mn = float(np.nanmean(net))
     pct = 100.0 * (mo - mn) / mo if mo > 0 else float("nan")
     # one decimal under 1 %: a changed bar must not read "offsets 0 %"
-    share = "n/a" if not np.isfinite(pct) else f"{pct:.1f} %" if abs(pct) < 1 else f"{pct:.0f} %"
+    if np.isfinite(pct):
+        share = f"emission offsets {pct:.1f} %" if abs(pct) < 1 else f"emission offsets {pct:.0f} %"
+    else:       # no share of a deposition of 0 (it read "offsets n/a" without a reason)
+        share = "no share offset by emission (no percent: the deposition only is 0)"
     return (f"Dry NH3 {_fmt(mn)} {unit} N net (deposition - emission) against {_fmt(mo)} "
-            f"deposition only: emission offsets {share}; the bars and the N totals use the net.")
+            f"deposition only: {share}; the bars and the N totals use the net.")
 
 
 def monthly_amounts(ds_month: xr.Dataset, site, receptor, unit="kg/ha/yr") -> pd.DataFrame:
@@ -487,6 +491,14 @@ def change_line(before: pd.DataFrame | None, after: pd.DataFrame, unit="kg/ha/yr
     """One line of text with the change of each total, e.g.
     ``S total 8.3 -> 7.9 kg/ha/yr, -4.8 %``.
 
+    The percent is of the value before, and only where it is above 0
+    (:mod:`workbench.percent`); from 0, from below 0 (a net emission: dry NH3 with
+    bidirectional exchange) or from a missing value the line gives the absolute change
+    and why there is no percent: ``N dry -2.0 -> -1.0 kg/ha/yr, +1.0 kg/ha/yr (less net
+    emission; no percent: the value before is below 0, a net emission)``.  Before the
+    2026-12 review a base below 0 flipped the sign (-50 % for that rise) and a base of 0
+    gave nothing.
+
     Parameters
     ----------
     before, after : pandas.DataFrame
@@ -516,14 +528,27 @@ def change_line(before: pd.DataFrame | None, after: pd.DataFrame, unit="kg/ha/yr
             continue
         old = float(before.loc[name, "value"])
         d = _decimals(old, new) if np.isfinite(old) and np.isfinite(new) else DECIMALS
-        if np.isfinite(old) and np.isfinite(new) and old != 0:
-            pct = f", {100.0 * (new - old) / old:+.1f} %"
-        elif np.isfinite(old) and np.isfinite(new):
-            pct = ", no change" if new == old else ""
-        else:
-            pct = ""
-        parts.append(f"{label} {_fmt(old, d)} -> {_fmt(new, d)} {unit}{pct}{tail}")
+        parts.append(f"{label} {_fmt(old, d)} -> {_fmt(new, d)} {unit}"
+                     f"{_change_words(old, new, d, unit)}{tail}")
     return "; ".join(parts)
+
+
+def _change_words(old: float, new: float, decimals: int, unit: str) -> str:
+    """The change of :func:`change_line` after the two values: ``, -4.8 %`` from a base
+    above 0; ``, no change``; else the absolute change [unit] and why there is no
+    percent (a base of 0, below 0: a net emission, or missing; workbench.percent)."""
+    if np.isfinite(old) and np.isfinite(new) and new == old:
+        return ", no change" if old <= 0 else f", {percent_change(old, new):+.1f} %"
+    pct = percent_change(old, new)
+    if np.isfinite(pct):
+        return f", {pct:+.1f} %"
+    reason = no_percent_reason(old, new, "the value before", "the value after")
+    if not (np.isfinite(old) and np.isfinite(new)):
+        return f" ({reason})"
+    words = emission_words(old, new)
+    step = _fmt(new - old, decimals)
+    step = step if step.startswith("-") else "+" + step
+    return f", {step} {unit} ({words + '; ' if words else ''}{reason})"
 
 
 def network_table(year_ds: xr.Dataset, catalogue=None, unit="kg/ha/yr",
