@@ -143,7 +143,7 @@ CONSTANT_MODULES = (
     "workbench/io/airslip.py", "workbench/io/samplegaps.py",
     "workbench/drydep/options.py", "workbench/drydep/particle_fractions.py",
     "workbench/drydep/codeposition.py",
-    "workbench/analysis/trends.py", "workbench/analysis/exceedance.py",
+    "workbench/analysis/trends_stats.py", "workbench/analysis/exceedance.py",
     "workbench/analysis/uncertainty_options.py", "workbench/analysis/sensitivity_options.py")
 
 
