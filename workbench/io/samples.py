@@ -2,6 +2,10 @@
 
 Both return ``(dataset, ledger)``; see ``docs/data_formats.md`` for the files and
 ``docs/data_model.md`` for the datasets.
+
+Where the parts are: the species columns, the concentrations and the interval table in
+:mod:`workbench.io.samplecolumns`; the unit slips in :mod:`workbench.io.sampleunits`.
+This module re-exports them, so that ``workbench.io.samples.<name>`` keeps working.
 """
 from __future__ import annotations
 

@@ -2,6 +2,11 @@
 
 See ``docs/data_formats.md`` for the keys.  Heights are in metres, angles in degrees,
 critical loads in eq/ha/yr.
+
+Where the parts are: the keys of a site's table, :class:`Site` and :func:`site_dict` in
+:mod:`workbench.io.siterecord`; :func:`check_site` in :mod:`workbench.io.sitecheck`; the
+plausible geometry and :func:`zone_note` in :mod:`workbench.io.sitegeometry`.  This
+module re-exports them, so that ``workbench.io.sites.<name>`` keeps working.
 """
 from __future__ import annotations
 

@@ -3,6 +3,12 @@
 Every problem is raised as :class:`~workbench.errors.InputError` naming the file, the
 line, the column, the value and what was expected.  Parsing is vectorized; only the
 first offending row of a column is reported.
+
+Where the parts are: the cell texts and the hint of a cell that is no number in
+:mod:`workbench.io.tablecells`; the time texts (24:00, day/month dates, the plausible
+years) in :mod:`workbench.io.tabletimes`; the file's text and the shape of its rows
+(fields, unit brackets, ``#`` lines, the header again) in :mod:`workbench.io.tablerows`.
+This module re-exports them, so that ``workbench.io.table.<name>`` keeps working.
 """
 from __future__ import annotations
 
