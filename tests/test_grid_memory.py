@@ -17,7 +17,7 @@ import pytest
 import xarray as xr
 
 import workbench.grid as G
-from workbench import grid_io
+from workbench import grid_cells, grid_io  # grid_cells: where a block's read looks names up
 from workbench.budget import BudgetOptions
 from workbench.drydep import DryOptions
 from workbench.grid import compute_grid, make_periods
@@ -59,7 +59,7 @@ def test_met_checks_run_on_slices_of_whole_cells_with_the_same_results(flawed, m
     on a whole block (0.88 M cell-hours) they set the block's peak (380 MB).  They now
     run check_cells(hours) cells at a time; every check looks at a row or at one site's
     rows, so the values, flags and reasons are the same bits as the block at once."""
-    monkeypatch.setattr(grid_io, "CHECK_CELL_HOURS", 10 ** 9)       # all cells at once
+    monkeypatch.setattr(grid_cells, "CHECK_CELL_HOURS", 10 ** 9)       # all cells at once
     met_1, air_1, flagged_1, reasons_1 = _read(flawed)
     n_t = len(flawed.times)
     sizes = []
@@ -69,7 +69,7 @@ def test_met_checks_run_on_slices_of_whole_cells_with_the_same_results(flawed, m
         sizes.append(len(sites))
         return real(values, sites, t, catalogue, units)
     monkeypatch.setattr(metchecks, "run_row_checks", spy)
-    monkeypatch.setattr(grid_io, "CHECK_CELL_HOURS", 3 * n_t)      # 3 cells a slice
+    monkeypatch.setattr(grid_cells, "CHECK_CELL_HOURS", 3 * n_t)      # 3 cells a slice
     met_3, air_3, flagged_3, reasons_3 = _read(flawed)
     assert sizes == [3 * n_t] * 5 + [n_t]                          # 16 cells: 3+3+3+3+3+1
     for name in met_1.data_vars:
@@ -109,8 +109,8 @@ def test_a_block_reads_its_own_slice_each_variable_through_its_own_open(flawed, 
     def spy_values(var, path, name, where=""):
         shapes.append((name, var.shape))
         return real_values(var, path, name, where)
-    monkeypatch.setattr(grid_io, "_open", spy_open)
-    monkeypatch.setattr(grid_io, "read_values", spy_values)
+    monkeypatch.setattr(grid_cells, "_open", spy_open)
+    monkeypatch.setattr(grid_cells, "read_values", spy_values)
     ys, xs = slice(1, 3), slice(0, 3)
     read_block(flawed, ys, xs, block_catalogue(flawed, ys, xs))
     n_met, n_air = len(flawed.met_units), len(flawed.air_units)

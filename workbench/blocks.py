@@ -30,6 +30,11 @@ velocity there.  Each block lays its budget on the network's receptor axis
 wet deposition, dry components missing with Vd coverage 0, the total partial), not a
 fill value: budget.nc is the whole run's, variable by variable
 (tests/test_blocks_layout.py), as budget.csv and summary.csv are.
+
+Where the parts are: the sites in blocks and a block's memory in
+:mod:`workbench.block_sites`; the local dask cluster (:func:`start_client`,
+:class:`ClusterStart`) in :mod:`workbench.block_cluster`.  This module re-exports them
+all, so that ``workbench.blocks.<name>`` keeps working.
 """
 from __future__ import annotations
 
@@ -44,149 +49,17 @@ from .io.common import release_free_memory
 from .pipeline import Result, Study
 from .worker_memory import completed, result as task_result, watch
 
+# the local cluster (defined here before)
+from .block_cluster import (UNSET_WORKER_ENVIRON, WORKER_CONFIG,  # noqa: F401
+                            WORKER_LAUNCHER, WORKER_PRELOAD, ClusterStart, _worker_launcher,
+                            close_client, start_client)
+# the sites in blocks and a block's memory (defined here before)
+from .block_sites import (BLOCK_BYTES_PER_SITE_RECEPTOR_HOUR, WORKER_BASE_MIB,  # noqa: F401
+                          _n_sites, block_need, blocks_with_met, describe_block,
+                          site_blocks, wanted_blocks)
+
 __all__ = ["ClusterStart", "close_client", "run_blocks", "run_network", "site_blocks",
            "start_client", "wanted_blocks", "wants_blocks"]
-
-
-def _n_sites(n) -> str:
-    """``1 site``, ``2 sites``."""
-    return f"{n} site" + ("" if n == 1 else "s")
-
-
-def blocks_with_met(wanted, inputs, receptors) -> list:
-    """`wanted` (:func:`wanted_blocks`) with each block whose sites have no hour of met
-    (a site listed in sites.toml before its first record) joined to the first block
-    that has some, its surfaces added in the network's order: such a block alone has
-    an empty met table, which the dry chain cannot take; in a whole run, and so here,
-    those sites' dry budgets are missing.  Unchanged when every block has met or none
-    has.
-
-    >>> from types import SimpleNamespace as S
-    >>> import xarray as xr
-    >>> inp = S(met=xr.Dataset(coords={"site": ["a", "b"]}))
-    >>> blocks_with_met([(["a"], ("grass",)), (["n"], ("crops",)), (["b"], ("grass",))],
-    ...                 inp, ["grass", "crops"])
-    [(['a', 'n'], ('grass', 'crops')), (['b'], ('grass',))]
-    """
-    met = getattr(inputs, "met", None)
-    have = set(met["site"].values.astype(str)) if met is not None and "site" in met.coords \
-        else set()
-    has = [any(s in have for s in sites) for sites, _ in wanted]
-    if all(has) or not any(has):
-        return list(wanted)
-    host = has.index(True)
-    out = [(list(sites), tuple(recs)) for sites, recs in wanted]
-    for i, (sites, recs) in enumerate(wanted):
-        if not has[i]:
-            hs, hr = out[host]
-            joined = set(hr) | set(recs)
-            out[host] = (hs + list(sites), tuple(r for r in receptors if r in joined))
-    return [b for b, h in zip(out, has) if h]
-
-
-def site_blocks(sites, block_sites=None) -> list:
-    """The site ids in consecutive blocks of at most `block_sites` (None: one block).
-
-    >>> site_blocks(["a", "b", "c"], 2)
-    [['a', 'b'], ['c']]
-    """
-    sites = list(sites)
-    if block_sites is None or block_sites >= len(sites):
-        return [sites] if sites else []
-    if int(block_sites) < 1:
-        raise ValueError(f"block_sites must be at least 1, got {block_sites!r}")
-    n = int(block_sites)
-    return [sites[i:i + n] for i in range(0, len(sites), n)]
-
-
-def wanted_blocks(catalogue, receptors, block_sites=None) -> list:
-    """Blocks of sites that ask for the same receptor surfaces, and those surfaces.
-
-    The sites are grouped by the set of surfaces they ask for (their own land use and
-    their further receptors); each group, in catalogue order, is cut into blocks of at
-    most `block_sites`.  A block run with ``Study.run(..., receptors=surfaces)``
-    computes only (site, receptor) pairs that a site asks for.
-
-    Parameters
-    ----------
-    catalogue : SiteCatalogue
-        The network's catalogue, site overrides applied.
-    receptors : list of str
-        Every receptor surface of the network, in the order of a whole run.
-    block_sites : int, optional
-        Largest block [sites] (default: one block per group).
-
-    Returns
-    -------
-    list of (list of str, tuple of str)
-        (site ids, receptor surfaces in the network's order), groups in the order of
-        their first site in the catalogue.
-
-    >>> from types import SimpleNamespace as S
-    >>> cat = [S(id="a", surfaces=("grass",)), S(id="b", surfaces=("forest", "grass")),
-    ...        S(id="c", surfaces=("grass",))]
-    >>> wanted_blocks(cat, ["grass", "forest"], 1)
-    [(['a'], ('grass',)), (['c'], ('grass',)), (['b'], ('grass', 'forest'))]
-    """
-    groups = {}
-    for s in catalogue:
-        wanted = set(s.surfaces)
-        key = tuple(r for r in receptors if r in wanted)
-        groups.setdefault(key, []).append(s.id)
-    return [(block, key) for key, ids in groups.items() for block in site_blocks(ids, block_sites)]
-
-
-#: Memory of a block of sites at its peak in the worker, per site-hour and receptor
-#: surface [bytes] (measured with tracemalloc on the demo network, 8 years of hours:
-#: 122 MiB for one site x 70,128 hours x 2 receptors, 164 MiB for 3: 915 and 816 bytes;
-#: docs/performance.md, "A block of sites on a worker").  The hourly met of the block
-#: itself, (sites x hours x variables x 8 bytes), is about 1/30 of it.
-BLOCK_BYTES_PER_SITE_RECEPTOR_HOUR = 900
-#: Memory of a worker process before its first block [MiB] (the same measure: 63 MiB
-#: idle, 128 MiB with the package and the modules a block imports).
-WORKER_BASE_MIB = 130
-
-
-def block_need(n_sites, n_receptors, n_hours, n_vars) -> tuple:
-    """(hourly met, peak of the block's engine) of a block of sites [bytes]: the met is
-    ``n_sites x n_hours x n_vars x 8`` bytes (float64), the peak
-    :data:`BLOCK_BYTES_PER_SITE_RECEPTOR_HOUR` a site-hour and receptor surface.
-
-    >>> block_need(1, 2, 8760, 9)
-    (630720, 15768000)
-    """
-    site_hours = int(n_sites) * int(n_hours)
-    return (site_hours * int(n_vars) * 8,
-            site_hours * max(1, int(n_receptors)) * BLOCK_BYTES_PER_SITE_RECEPTOR_HOUR)
-
-
-def describe_block(blocks, wanted, now, met, block_sites):
-    """The words of :func:`workbench.worker_memory.memory_error` for the block of sites
-    ``blocks[now[0]]`` (its receptors in ``wanted[now[0]]``; `met` the network's hourly
-    met, whose whole record every block holds)."""
-    n_hours = int(met.sizes.get("time", 0)) if met is not None else 0
-    n_vars = len(met.data_vars) if met is not None else 0
-
-    def describe():
-        sites, recs = blocks[now[0]], wanted[now[0]][1]
-        met_b, peak = block_need(len(sites), len(recs), n_hours, n_vars)
-        names = ", ".join(sites[:3]) + (", ..." if len(sites) > 3 else "")
-        if len(sites) > 1:
-            smaller = (f"a smaller --block-sites (now {block_sites}; the memory follows a "
-                       "block's site-hours)")
-        else:
-            smaller = ("a shorter met record (a block is already one site; its memory "
-                       "follows its hours)")
-        return (f"a block of {_n_sites(len(sites))} ({names})",
-                f"a block of {len(sites) * n_hours:,} site-hours ({_n_sites(len(sites))} x "
-                f"{n_hours:,} hours) and {len(recs)} receptor surface"
-                f"{'' if len(recs) == 1 else 's'}: its hourly met is "
-                f"{met_b / 2**20:,.1f} MiB ({n_vars} variables x 8 bytes a site-hour) and "
-                f"the engine's work on it about {peak / 2**20:,.0f} MiB at its peak "
-                f"(measured: about {BLOCK_BYTES_PER_SITE_RECEPTOR_HOUR} bytes a site-hour "
-                f"and receptor), besides about {WORKER_BASE_MIB} MiB of the worker itself",
-                smaller)
-    return describe
 
 
 def run_block(inputs, site_overrides, args: dict, keep_velocities=False) -> dict:
@@ -255,186 +128,6 @@ def _loaded(inputs):
     if not is_lazy(inputs.met):
         return inputs
     return dataclasses.replace(inputs, met=inputs.met.load())
-
-
-# ---------------------------------------------------------------- the runner
-#: Environment variables that ``distributed`` sets on the worker processes it starts
-#: by default and that a local cluster of :func:`start_client` leaves unset.
-#: ``MALLOC_TRIM_THRESHOLD_`` (65,536 bytes by default) turns off glibc's adaptive
-#: threshold for memory mapped allocations: each large numpy temporary of a block was
-#: then mapped and unmapped anew, with five times the page faults, and a block took
-#: 30-45 % more CPU in a worker than in this process (docs/performance.md).  A block
-#: returns its free memory to the system when it ends (``release_free_memory``).
-UNSET_WORKER_ENVIRON = ("MALLOC_TRIM_THRESHOLD_",)
-
-
-#: dask settings of the worker processes of a local cluster of :func:`start_client`
-#: (read by each nanny as it is made, so they reach the workers it spawns).
-#: distributed's statistical profiler samples every worker's stack each 10 ms and keeps
-#: one profile a second (up to ``distributed.admin.low-level-log-length``, 1,000) with
-#: the source lines of every sampled frame (``linecache``): for the dashboard, which a
-#: local cluster here does not start.  It grew each worker by its run's length: traced
-#: on 2 workers of a 100 x 100 grid, 31 MB more of profiles and source lines than at
-#: 20 x 20, about half of the worker's growth in peak with the grid's size
-#: (docs/performance.md, "Flat worker memory").  Off here; a cluster given by
-#: ``--scheduler`` keeps its own settings.
-WORKER_CONFIG = {"distributed.worker.profile.enabled": False}
-
-
-#: Modules the worker processes of a local cluster of :func:`start_client` import as
-#: they start (distributed's worker ``preload``), before they take a task: the package
-#: and the modules a block imports when it first runs.  Started by
-#: :class:`ClusterStart`, these imports overlap the main process's reading of the
-#: inputs instead of delaying each worker's first block (2.4-3.5 s on a loaded
-#: machine, docs/performance.md).
-WORKER_PRELOAD = ("workbench.blocks", "workbench.comparison", "workbench.drydep.codeposition",
-                  "workbench.drydep.wesely1989", "workbench.dasklog")
-
-
-#: Launcher of the worker processes of a local cluster (:func:`start_client`), a shell
-#: script in place of the Python executable that ``multiprocessing`` starts them with.
-#: Ctrl-C in a terminal reaches every process of its group, and each worker, still
-#: importing, printed its own KeyboardInterrupt traceback; the main process takes
-#: Ctrl-C and shuts the cluster down, so a worker ignores SIGINT from its start: the
-#: shell sets SIGINT to ignored before it execs Python, and an ignored signal stays
-#: ignored across exec and in Python (it installs its KeyboardInterrupt handler only
-#: where SIGINT has its default action).
-WORKER_LAUNCHER = """#!/bin/sh
-trap '' INT
-exec {python} "$@"
-"""
-
-
-def _worker_launcher(python):
-    """A temporary :data:`WORKER_LAUNCHER` for `python` (removed at exit), or None where
-    there is no POSIX shell or the temporary folder may not run programs (the workers
-    then start as before, and print their tracebacks on a Ctrl-C)."""
-    import atexit
-    import os
-    import shlex
-    import stat
-    import tempfile
-    if os.name != "posix" or not os.path.exists("/bin/sh"):
-        return None
-    fd, path = tempfile.mkstemp(prefix="workbench-worker-", suffix=".sh")
-    with os.fdopen(fd, "w") as f:
-        f.write(WORKER_LAUNCHER.format(python=shlex.quote(os.fsdecode(python))))
-    os.chmod(path, stat.S_IRWXU)
-    if not os.access(path, os.X_OK):      # a temporary folder mounted noexec
-        os.remove(path)
-        return None
-    atexit.register(lambda: os.path.exists(path) and os.remove(path))
-    return path
-
-
-def start_client(workers=None, scheduler=None, log=None):
-    """A ``dask.distributed`` client: on `scheduler` (an address) or on a local cluster
-    of `workers` single-threaded processes (without the variables of
-    :data:`UNSET_WORKER_ENVIRON`; each ignores Ctrl-C, :data:`WORKER_LAUNCHER`, and
-    imports :data:`WORKER_PRELOAD` as it starts; with `log`, a path, each worker's
-    log records go to that file, :func:`workbench.dasklog.dask_setup`).
-    The caller closes it (:func:`close_client`)."""
-    from .optional import require
-    distributed = require("distributed")
-    if scheduler:
-        try:
-            return distributed.Client(scheduler)
-        except (OSError, ValueError, TypeError) as exc:
-            # a scheduler that is not running, a wrong host or port, or an address dask
-            # cannot parse: one line naming the address (it read "could not read or
-            # write None: Timed out ...")
-            from .errors import WorkbenchError
-            raise WorkbenchError(
-                f"could not reach the dask scheduler at {scheduler}: {exc}; expected the "
-                "address of a running scheduler (`dask scheduler` prints it, e.g. "
-                "tcp://host:8786), reachable from this machine") from None
-    import os
-
-    import dask
-    unset = {f"distributed.nanny.pre-spawn-environ.{name}": None
-             for name in UNSET_WORKER_ENVIRON}
-    # the workers started with the cluster ignore Ctrl-C (a worker that its nanny
-    # restarts later is started by Python itself, as before)
-    from multiprocessing import spawn
-    python = spawn.get_executable()
-    launcher = _worker_launcher(python)
-    try:
-        if launcher:
-            spawn.set_executable(launcher)
-        # None: not set (both read when the nannies are made)
-        from .dasklog import CONFIG_KEY
-        logged = {CONFIG_KEY: os.fspath(log)} if log is not None else {}
-        with dask.config.set({**unset, **WORKER_CONFIG, **logged}):
-            cluster = distributed.LocalCluster(n_workers=int(workers), threads_per_worker=1,
-                                               dashboard_address=None,
-                                               preload=list(WORKER_PRELOAD))
-    finally:
-        spawn.set_executable(python)
-    # the scheduler, in this process, hooks a callback into the garbage collector; a
-    # Ctrl-C that came while it ran was "ignored in" it, and the run went on to the end
-    from distributed.gc import disable_gc_diagnosis
-    disable_gc_diagnosis(force=True)
-    return distributed.Client(cluster)
-
-
-def close_client(client):
-    """Close `client` and, for a local cluster started here, the cluster."""
-    cluster = getattr(client, "cluster", None)
-    client.close()
-    if cluster is not None:
-        cluster.close()
-
-
-class ClusterStart:
-    """A local cluster of :func:`start_client` starting on a thread of its own.
-
-    ``workbench run --workers N`` starts it before reading the inputs, so the start of
-    the scheduler and the workers (with their imports, :data:`WORKER_PRELOAD`) overlaps
-    the reading, which is serial in the main process.  Whoever starts it closes it
-    (:meth:`close`, also after an error: it waits for the start to end, then shuts the
-    cluster down, so no worker process outlives the command).
-
-    Parameters
-    ----------
-    workers : int
-        Worker processes [-].
-    log : path, optional
-        Where the workers' log records go (:func:`start_client`).
-    """
-
-    def __init__(self, workers, log=None):
-        import threading
-        from .optional import require
-        require("distributed")       # imported here: a missing extra is named at once
-        self.workers, self.log = int(workers), log
-        self._client = self._error = None
-        self._closed = False
-        self._thread = threading.Thread(target=self._start, name="workbench-cluster-start",
-                                        daemon=True)
-        self._thread.start()
-
-    def _start(self):
-        try:
-            self._client = start_client(self.workers, log=self.log)
-        except BaseException as exc:          # raised by result(), in the caller's thread
-            self._error = exc
-
-    def result(self):
-        """The client, once the cluster is up (its start's error is raised here)."""
-        self._thread.join()
-        if self._closed:
-            raise RuntimeError("the local cluster was closed")
-        if self._error is not None:
-            raise self._error
-        return self._client
-
-    def close(self):
-        """Wait for the start to end, then close the client and the cluster (again: no-op)."""
-        self._thread.join()
-        self._closed = True
-        client, self._client = self._client, None
-        if client is not None:
-            close_client(client)
 
 
 def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_options=None,

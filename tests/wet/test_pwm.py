@@ -261,7 +261,7 @@ def test_unscreened_or_empty_input_is_refused():
 def test_the_wet_chain_runs_the_function_named_for_the_pwm(monkeypatch):
     """One implementation of the method: the PWMs of `wet_deposition` are those of
     :func:`precipitation_weighted_mean` (the definition in the module docstring)."""
-    import workbench.wet.deposition as dep
+    import workbench.wet.deposition_pwm as dep     # where wet_deposition's PWMs look it up
     calls = []
     real = dep.precipitation_weighted_mean
 

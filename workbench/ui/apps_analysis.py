@@ -51,13 +51,27 @@ PATH_HEADINGS = {"fraction": "share of the cuts [%]", "cut_S": "cut S [%]",
                  "ex_nutrient_n_eq_ha_yr": "nutrient-N exceedance [eq/ha/yr]"}
 
 
-def path_display(path: pd.DataFrame) -> pd.DataFrame:
+#: Added to the heading of an exceedance resting on a partial deposition.
+LOWER_HEADING = " (deposition partial: a lower bound, 0 not determined)"
+
+
+def path_display(path: pd.DataFrame, lower=False, lower_n=False) -> pd.DataFrame:
     """The what-if path as the table under the figure: fractions [1] as percent [%],
-    headings in words with units (the table read "cut_S 0.025" beside a slider of %)."""
+    headings in words with units (the table read "cut_S 0.025" beside a slider of %).
+
+    `lower` (S or N partial) and `lower_n` (N partial), as :func:`lower_bound`: the
+    acidity and the nutrient-N exceedance columns say in their headings that they rest
+    on a partial deposition (a 0 there is not determined, as the line above the figure
+    says; the table showed a bare 0 under "acidity exceedance not determined")."""
     t = path[list(PATH_COLUMNS)].copy()
     for c in ("fraction", "cut_S", "cut_NOx", "cut_NHx"):
         t[c] = 100.0 * t[c]
-    return t.rename(columns=PATH_HEADINGS)
+    heads = dict(PATH_HEADINGS)
+    if lower:
+        heads["ex_acidity_eq_ha_yr"] += LOWER_HEADING
+    if lower_n:
+        heads["ex_nutrient_n_eq_ha_yr"] += LOWER_HEADING
+    return t.rename(columns=heads)
 
 
 class CriticalLoadsExplorer(SavedText, widgets.VBox):
@@ -301,7 +315,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         refresh(self.fig, _sized(clf_spec(loads, first["s_dep_eq_ha_yr"],
                                           first["n_dep_eq_ha_yr"], self.path, where,
                                           MODES[mode], ranges=row)))
-        self.table_w.value = table_html(path_display(self.path))
+        self.table_w.value = table_html(path_display(self.path, lower, lower_n), fill=True)
         return self.statement
 
 

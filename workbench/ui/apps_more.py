@@ -204,8 +204,12 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         # every number its unit, and a total that is not whole says so in its heading
         show.columns = [f"{total_heading(c, unit)}{notes.get(c, '')}" for c in show.columns]
         show.columns.name = None
+        by_value = sweep_statuses(shown)
+        if by_value.nunique() > 1:     # which value each status is at, not only that one is
+            show["status of the totals"] = by_value.reindex(show.index).to_numpy()
         self.table_w.value = table_html(show.reset_index().rename(
-            columns={"value": a.label if "[" in a.label else f"{a.label} (setting)"}))
+            columns={"value": a.label if "[" in a.label else f"{a.label} (setting)"}),
+            fill=True)       # a wide table scrolls in the column (its last column was cut)
         self.progress.done("sweep done")
         return self.table
 
@@ -219,6 +223,15 @@ class SensitivityExplorer(SavedText, widgets.VBox):
                                        sort=False).to_numpy(float)
         if len(values) < 2 or not np.isfinite(rates).all() or np.ptp(rates, axis=0).any():
             return ""
+        by_value = sweep_statuses(self.table)
+        if by_value.nunique() > 1:       # the numbers stay, their standing does not
+            moved = "; ".join((f"at {v:g}: {st}" if isinstance(v, (int, float))
+                               else f"at {v}: {st}")
+                              for v, st in by_value.items()
+                              if st != by_value.mode().iloc[0])
+            return " " + html.escape(
+                f"{a.label}: the totals' numbers stay the same over the sweep, their status "
+                f"changes ({moved}; the table's last column).")
         res = self.session.run(a.set(self.settings, site, values[0]), site, *years, "year",
                                rec)              # a run of the sweep: the session has it
         b = self.settings.budget
@@ -229,6 +242,31 @@ class SensitivityExplorer(SavedText, widgets.VBox):
             "no effect on the totals", "no effect over the sweep on the totals"))
 
 
+def sweep_statuses(table: pd.DataFrame) -> pd.Series:
+    """The status of the totals at each value of a sweep, in words.
+
+    Parameters
+    ----------
+    table : DataFrame
+        :meth:`Session.sweep` rows (``value``, ``total`` such as ``S_total``, ``status``).
+
+    Returns
+    -------
+    Series
+        By value (in the sweep's order): ``"complete"`` where every total is whole
+        (complete or filled; ``"filled"`` where one is filled), else the totals that are
+        not, with their status (``"S total flagged, N total flagged"``).
+    """
+    rows = table[table["total"].astype(str).str.endswith("_total")]
+    out = {}
+    for value, g in rows.groupby("value", sort=False):
+        bad = [f"{str(t).replace('_', ' ')} {st}" for t, st in zip(g["total"], g["status"])
+               if st not in figures.WHOLE]
+        out[value] = (", ".join(bad) if bad else
+                      "filled" if (g["status"] == "filled").any() else "complete")
+    return pd.Series(out, dtype=object)
+
+
 #: Headings of the network's trend and exceedance table as shown (the frame keeps the
 #: column names of the handover tables: ``S_trend``, ``ex_acidity_eq_ha_yr``...).
 ANALYSIS_HEADINGS = {"S_trend": "S trend", "N_trend": "N trend",
@@ -236,6 +274,9 @@ ANALYSIS_HEADINGS = {"S_trend": "S trend", "N_trend": "N trend",
                      "ex_nutrient_n_eq_ha_yr": "nutrient-N exceedance",
                      "exceedance_status": "status of the totals",
                      "exceedance_note": "exceedance note"}
+
+#: Columns of sentences in that table (at least WIDE_COLUMN wide: the table scrolls).
+ANALYSIS_WIDE = ("S trend", "N trend", "exceedance note")
 
 
 #: The network's control of the serial correction of the trends' test.
@@ -334,9 +375,8 @@ class NetworkOverview(SavedText, widgets.VBox):
         self.analysis_w.value = (f"<b>Trends of the annual totals [{html.escape(unit)} per yr] "
                                  "and critical-load exceedance of the span [eq/ha/yr]</b>"
                                  + (f"<br><i>{html.escape(SERIAL_NOTE)}</i>" if serial else "")
-                                 + "<div style='overflow-x:auto;max-width:100%'>"
-                                 + table_html(self.analysis.rename(columns=ANALYSIS_HEADINGS))
-                                 + "</div>")
+                                 + table_html(self.analysis.rename(columns=ANALYSIS_HEADINGS),
+                                              wide=ANALYSIS_WIDE, fill=True))
 
     def _no_data_html(self) -> str:
         """The sites of sites.toml without any input row: named, not silently left out

@@ -269,7 +269,7 @@ def _build() -> dict:
         *[_fine_fraction(sp) for sp in PARTICLE_SPECIES],
         _option("dry", "particle_settling", "particle settling", "particles", "choice",
                 (("Stokes' law (Zhang 2001)", "stokes"),
-                 ("drag correlation (Clift & Gauvin 1970)", "clift_gauvin"))),
+                 ("Clift & Gauvin drag (1970)", "clift_gauvin"))),
         _option("budget", "pair_split", "gas/particle split of the nitrate and ammonium pairs",
                 "gas/particle pairs", "choice",
                 (("as measured", "measured"), ("all as gas", "all_gas"),

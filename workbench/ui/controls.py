@@ -503,16 +503,53 @@ def table_number(v: float) -> str:
     return f"{v:,.0f}" if abs(v) >= 1000 else f"{v:.3g}"
 
 
-def table_html(frame: pd.DataFrame, empty="none") -> str:
+#: Least width of a column of long sentences in a table [CSS] (:func:`table_html`'s
+#: ``wide``): about 30 characters a line at the tables' 85 % font.
+WIDE_COLUMN = "16em"
+
+
+def table_html(frame: pd.DataFrame, empty="none", wide=(), fill=False) -> str:
     """A scrolling HTML table of a DataFrame (text escaped; headings over their columns,
-    left-aligned like the cells; numbers by :func:`table_number`)."""
+    left-aligned like the cells; numbers by :func:`table_number`).
+
+    Parameters
+    ----------
+    frame : DataFrame
+        The rows shown (all columns, without the index).
+    empty : str
+        Said in place of a table when there is no row.
+    wide : sequence of str
+        Columns of long sentences that get at least :data:`WIDE_COLUMN` of width: the
+        table then scrolls sideways in its box instead of squeezing them into a column
+        of a few words a line (a network trend of 180 characters in a 60 px column made
+        one row taller than the box, which showed a slice of it).
+    fill : bool
+        The box takes the width of the column it is in and nothing from the table: a
+        table wider than the column scrolls inside it.  Without it the table's least
+        width widens the HTML widget holding it past an app's column (beside an open
+        file browser the trend table of the network overview cut its own heading at the
+        right).  Only for a widget whose width the column sets (a VBox child).
+    """
     if frame is None or frame.empty:
         return f"<p><i>{html.escape(empty)}</i></p>"
+    classes = "wb-table"
+    css = TABLE_CSS
+    cols = [str(c) for c in frame.columns]
+    wide_at = [cols.index(str(c)) + 1 for c in wide if str(c) in cols]
+    if wide_at:
+        # a class of this table's own: the style element applies to the whole page
+        own = "wb-table-" + "-".join(map(str, wide_at))
+        classes += f" {own}"
+        css += ("<style>" + ", ".join(f".{own} td:nth-child({i})" for i in wide_at)
+                + f" {{min-width: {WIDE_COLUMN};}}</style>")
     body = frame.to_html(index=False, border=0, escape=True, na_rep="–", justify="left",
-                         float_format=table_number, classes="wb-table")
+                         float_format=table_number, classes=classes)
     # JupyterLab's stylesheet right-aligns a th: the headings stood off their cells
-    body = TABLE_CSS + body
-    return (f"<div style='max-height:{TABLE_HEIGHT};max-width:100%;overflow:auto;"
+    body = css + body
+    # width 0 with a least width of 100 %: no width of the table's own reaches the
+    # column (a percentage least width counts for nothing while the column is sized)
+    size = "width:0;min-width:100%;" if fill else ""
+    return (f"<div style='max-height:{TABLE_HEIGHT};max-width:100%;{size}overflow:auto;"
             f"font-size:85%'>{body}</div>")
 
 
@@ -601,7 +638,29 @@ class SavedText:
         from .saved_hint import APP_CLASS, saved_hint
         self.add_class(APP_CLASS)
         display(self._repr_mimebundle_(), raw=True)
-        display(saved_hint(self.saved_text()), raw=True)
+        text = self.saved_text()
+        handle = display(saved_hint(text), raw=True, display_id=True)
+        if handle is None:                       # no IPython display (a plain script)
+            return
+        # the hint follows what the app shows: a notebook saved after the site or year
+        # was changed named the state of the first drawing ("2023" over an app left on
+        # 2018, seen in chromium after Save and opening again)
+        hints = self.__dict__.setdefault("_saved_hints", [])
+        hints.append([handle, text])
+        if len(hints) == 1:
+            for w in _walk(self):
+                if isinstance(w, widgets.ValueWidget):
+                    w.observe(self._renew_saved_hints, "value")
+
+    def _renew_saved_hints(self, change=None):
+        """Update each :func:`saved_hint` shown of this app whose text is no longer
+        :meth:`saved_text` (one message per change of what the app shows)."""
+        from .saved_hint import saved_hint
+        text = self.saved_text()
+        for entry in self.__dict__.get("_saved_hints", []):
+            if entry[1] != text:
+                entry[0].update(saved_hint(text), raw=True)
+                entry[1] = text
 
 
 def open_with_progress(cls, scenario_path, **kw):

@@ -141,5 +141,6 @@ class SchemeTab:
                                              if left else "no gas compares the schemes."))
         self.sentence_w.value = f"<b>{html.escape(sentence)}</b>"
         shown = self.table.drop(columns="element").reset_index(names=f"[{unit}]")
-        self.table_w.value = table_html(shown.rename(columns={"percent": "percent (%)"}))
+        self.table_w.value = table_html(shown.rename(columns={"percent": "percent (%)"}),
+                                        fill=True)
         self._drawn = key

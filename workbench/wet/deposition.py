@@ -3,6 +3,11 @@
 :func:`wet_deposition` turns screened samples (:func:`workbench.wet.screen`) into a
 Dataset with dims (``site``, ``period``); :func:`to_table` flattens it for export.
 The rules and their sources are in ``docs/methods_wet.md``.
+
+Where the parts are: the samples' pieces and weights (:func:`sample_weights`) in
+:mod:`workbench.wet.deposition_pieces`; the PWMs and the climatology in
+:mod:`workbench.wet.deposition_pwm`; the sea-salt notes in
+:mod:`workbench.wet.deposition_notes`.  This module re-exports them all.
 """
 from __future__ import annotations
 
@@ -13,14 +18,21 @@ import pandas as pd
 import xarray as xr
 
 from .. import periods as _periods
-from ..species import PRECIP_IONS
 from ..units import deposition_in, ureg
 from . import seasalt
-from .hourly import site_positions, window_sums
 from .options import WetOptions
 from .pwm import CoverageProfile, covered_share, group_sums, precipitation_weighted_mean
 from .qa import UMOL_L_PER_MOL_M3, falls_short, pH_from_hydrogen
 from .screening import STATUSES
+
+# the sea-salt notes (defined here before)
+from .deposition_notes import _sample_names, _seasalt_floor_notes, _tracer_gaps  # noqa: F401
+# the samples' pieces and weights (defined here before)
+from .deposition_pieces import (_join, _met_fractions, _periods_table,  # noqa: F401
+                                _piece_weights, _species_list, _split, sample_weights)
+# the precipitation-weighted means (defined here before)
+from .deposition_pwm import _N_SEASONS, _climatology, _leave_out, _weighted  # noqa: F401
+
 
 #: m per mm (= 1e-3), from the unit registry: mol m-3 x mm -> mol m-2.
 M_PER_MM = ureg.Quantity(1.0, "mm").to("m").magnitude
@@ -29,256 +41,6 @@ ELEMENT_IONS = ("SO4", "NO3", "NH4")
 #: Period statuses.
 PERIOD_STATUSES = ("complete", "flagged", "filled", "missing")
 _UNIT_KG = {"SO4": "kg S ha-1", "NO3": "kg N ha-1", "NH4": "kg N ha-1"}
-_N_SEASONS = len(_periods.SEASON_NAMES)
-
-
-def _periods_table(periods, screened, opt):
-    if isinstance(periods, str):
-        start = screened["start"].values.min()
-        end = screened["end"].values.max()
-        return _periods.make_periods(start, end, periods, hydro_start_month=opt.hydro_start_month)
-    return periods.reset_index(drop=True)
-
-
-def _met_fractions(table, screened, met):
-    """Share of each sample's hourly met precipitation in each of its periods (NaN if none)."""
-    i = table["interval"].values
-    site = screened["site"].values.astype(str)[i]
-    pos = site_positions(site, met["site"].values)
-    sub, n_sub, h_sub = window_sums(met["precipitation"], pos, table["start"].values,
-                                    table["end"].values)
-    tot, n_tot, h_tot = window_sums(met["precipitation"], pos, screened["start"].values[i],
-                                    screened["end"].values[i])
-    ok = (n_tot == h_tot) & (h_tot > 0) & (tot > 0) & (n_sub == h_sub)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        return np.where(ok, sub / np.where(ok, tot, 1.0), np.nan)
-
-
-def _split(screened, ptable, opt, met):
-    """Long table of (sample, period) rows with the precipitation share of each."""
-    table = _periods.split_intervals(screened.variables["start"].values, screened.variables["end"].values, ptable)
-    frac = table["fraction"].values
-    method = np.full(len(table), "hours", dtype=object)
-    if opt.straddle == "met" and met is not None and "precipitation" in met:
-        fm = _met_fractions(table, screened, met)
-        method = np.where(np.isfinite(fm), "met", method)
-        frac = np.where(np.isfinite(fm), fm, frac)
-    table["share"] = frac
-    table["share_method"] = method
-    return table
-
-
-def _join(acc, mask, label):
-    add = np.where(acc == "", label, acc + "; " + label)
-    return np.where(mask, add, acc).astype(object)
-
-
-def _species_list(screened):
-    return [i for i in PRECIP_IONS if i in screened] + ["H"]
-
-
-def _weighted(table, screened, weight_all, used, flat, n_flat, species):
-    """PWM of each species per flat (site, period) cell [mol m-3], with its numerator
-    [mol m-3 mm] and denominator [mm]: :func:`~workbench.wet.pwm.precipitation_weighted_mean`
-    over the used samples, each weighted by its share of the cell's depth."""
-    pwm, num, den = {}, {}, {}
-    depth = np.where(used, weight_all, np.nan)
-    for sp in species:
-        c = np.asarray(screened.variables[sp].values, dtype=float)[table["interval"].values]
-        pwm[sp], num[sp], den[sp] = precipitation_weighted_mean(
-            c, depth, groups=flat, n_groups=n_flat, with_sums=True)
-    return pwm, num, den
-
-
-def _climatology(screened, opt, met, site_idx, n_site, species, gauge_prof):
-    """Sums of the multi-year PWM per site and season, and of each sample's part of them.
-
-    Returns
-    -------
-    num, den : dict
-        species -> (site, season) sums :math:`\\sum w C` [mol m-3 mm] and
-        :math:`\\sum w` [mm] over the used samples of the whole record.
-    own_num, own_den : dict
-        species -> (sample, season) the same sums of each sample alone, to leave a
-        period's own samples out of its fill (:func:`_leave_out`).
-    """
-    t0, t1 = screened.variables["start"].values.min(), screened.variables["end"].values.max()
-    seasons = _periods.make_periods(t0, t1, "season")
-    table = _split(screened, seasons, opt, met)
-    i = table["interval"].values
-    used = screened.variables["used"].values.astype(bool)[i]
-    weight = np.where(used, _piece_weights(
-        table, screened.variables["gauge_valid"].values.astype(bool),
-        screened.variables["gauge_depth_used"].values.astype(float), gauge_prof, site_idx), 0.0)
-    s_of = pd.Index(_periods.SEASON_NAMES).get_indexer(seasons["season"].values)
-    shape = (n_site, _N_SEASONS)
-    n_samp = screened.sizes["sample"]
-    flat = site_idx[i] * _N_SEASONS + s_of[table["period"].values]
-    by_sample = i * _N_SEASONS + s_of[table["period"].values]
-    _, num, den = _weighted(table, screened, weight, used, flat, n_site * _N_SEASONS, species)
-    _, o_num, o_den = _weighted(table, screened, weight, used, by_sample, n_samp * _N_SEASONS,
-                                species)
-    return ({sp: num[sp].reshape(shape) for sp in species},
-            {sp: den[sp].reshape(shape) for sp in species},
-            {sp: o_num[sp].reshape(n_samp, _N_SEASONS) for sp in species},
-            {sp: o_den[sp].reshape(n_samp, _N_SEASONS) for sp in species})
-
-
-def _leave_out(clim, table, site_idx, cat, has_season, n_site, n_per, species):
-    """The seasonal fill of each (site, period) without the period's own samples [mol m-3].
-
-    The fill of a period estimates its PWM from other data: the used samples of the same
-    season in the record (the whole record for a year or a custom range), less every
-    sample that overlaps the period (a sample straddling its edge included), so that
-    none of the failed period's own chemistry enters its fill (docs/methods_wet.md
-    section 7).  NaN where nothing else is left.
-    """
-    num, den, o_num, o_den = clim
-    i = table["interval"].values
-    p = table["period"].values
-    # each (sample, period) once: a sample's pieces in a period are one row of the split
-    key = np.unique(i * n_per + p)
-    si, pi = key // n_per, key % n_per
-    flat = site_idx[si] * n_per + pi
-    sel = np.clip(cat[pi], 0, _N_SEASONS - 1)
-    out = {}
-    for sp in species:
-        own_n = np.where(has_season[pi], o_num[sp][si, sel], o_num[sp][si].sum(1))
-        own_d = np.where(has_season[pi], o_den[sp][si, sel], o_den[sp][si].sum(1))
-        own_n = group_sums(own_n, flat, n_site * n_per).reshape(n_site, n_per)
-        own_d = group_sums(own_d, flat, n_site * n_per).reshape(n_site, n_per)
-        all_n = np.where(has_season[None, :], num[sp][:, np.clip(cat, 0, _N_SEASONS - 1)],
-                         num[sp].sum(1)[:, None])
-        all_d = np.where(has_season[None, :], den[sp][:, np.clip(cat, 0, _N_SEASONS - 1)],
-                         den[sp].sum(1)[:, None])
-        rest_n, rest_d = all_n - own_n, all_d - own_d
-        # to rounding: nothing left once the own samples are taken out
-        left = rest_d > 1e-9 * np.maximum(all_d, 1.0)
-        out[sp] = np.where(left, rest_n / np.where(left, rest_d, 1.0), np.nan)
-    return out
-
-
-def _sample_names(screened, rows):
-    """"YYYY-MM-DD line N" of each sample `rows` (indices of the screened intervals),
-    the date of its start and its line in the file ("YYYY-MM-DD" where no line)."""
-    start = pd.DatetimeIndex(screened.variables["start"].values[rows]).strftime("%Y-%m-%d")
-    line = (screened.variables["line"].values[rows] if "line" in screened.variables
-            else np.full(len(rows), -1))
-    return [f"{d} line {int(n)}" if n >= 0 else d for d, n in zip(start, line)]
-
-
-def _tracer_gaps(screened, table, weight, used, flat, shape, precip, ion, tracer, silent):
-    """Words naming the samples of each (site, period) whose `ion` is used without a value
-    of the sea-salt `tracer` ("" where none, or where `silent`).
-
-    The nss PWM subtracts the tracer's PWM over the samples that have it from the ion's
-    PWM over the samples that have the ion: a sample without the tracer is thereby given
-    the period's tracer PWM of its other samples (docs/methods_wet.md section 8).
-    """
-    i = table["interval"].values
-    c_ion = np.asarray(screened.variables[ion].values, float)[i]
-    c_tr = np.asarray(screened.variables[tracer].values, float)[i]
-    hit = used & np.isfinite(c_ion) & ~np.isfinite(c_tr) & (weight > 0)
-    out = np.full(shape, "", dtype=object)
-    if not hit.any():
-        return out
-    name = _sample_names(screened, i[hit])
-    g = pd.DataFrame({"flat": flat[hit], "name": name, "w": weight[hit]})
-    agg = g.groupby("flat").agg(names=("name", ", ".join), n=("name", "size"), w=("w", "sum"))
-    cells = agg.index.to_numpy()
-    s_, p_ = np.unravel_index(cells, shape)
-    pct = 100 * agg["w"].to_numpy() / np.where(precip[s_, p_] > 0, precip[s_, p_], np.nan)
-    words = [f"{tracer} missing in {n} sample{'s' if n > 1 else ''} with {ion} (from {names}; "
-             f"{p:.1f} % of the precipitation): sea salt taken as the period's {tracer} PWM "
-             "of its other samples" for n, names, p in zip(agg["n"], agg["names"], pct)]
-    out[s_, p_] = words
-    return np.where(silent, "", out).astype(object)
-
-
-def _seasalt_floor_notes(screened, table, weight, used, flat, shape, tracer, treatment):
-    """Words naming the samples of each (site, period) whose SO4 below detection took its
-    sea-salt sulfate as a floor (``SO4_seasalt_floor`` of the screening); "" elsewhere.
-
-    The sentence follows the air's (:func:`workbench.drycomponents.censored_nss_notes`).
-    """
-    out = np.full(shape, "", dtype=object)
-    if "SO4_seasalt_floor" not in screened.variables:
-        return out
-    i = table["interval"].values
-    hit = used & np.asarray(screened.variables["SO4_seasalt_floor"].values, bool)[i] & (weight > 0)
-    if not hit.any():
-        return out
-    name = _sample_names(screened, i[hit])
-    agg = pd.DataFrame({"flat": flat[hit], "name": name}).groupby("flat")["name"].agg(list)
-    sub = {"half": "half", "limit": "all", "zero": "none"}.get(treatment, treatment)
-    s_, p_ = np.unravel_index(agg.index.to_numpy(), shape)
-    out[s_, p_] = [
-        f"SO4 below detection beside {tracer} in {len(v)} sample{'s' if len(v) > 1 else ''} "
-        f"(from {', '.join(v)}): their SO4 taken as the sea-salt sulfate of their {tracer} "
-        f"plus {sub} of (limit - sea salt), so their non-sea-salt SO4 is {sub} of (limit - "
-        "sea salt), 0 where the sea salt reaches the limit (as the air's pSO4)"
-        for v in agg.to_numpy()]
-    return out
-
-
-def sample_weights(screened: xr.Dataset, ptable: pd.DataFrame, options: WetOptions,
-                   met: xr.Dataset | None = None):
-    """The (sample, period) pieces of the screened samples and their precipitation weights.
-
-    Parameters
-    ----------
-    screened : xarray.Dataset
-        Output of :func:`workbench.wet.screen` (dim ``sample``).
-    ptable : pandas.DataFrame
-        A period table (:func:`workbench.periods.make_periods`), index 0..P-1.
-    options : WetOptions
-    met : xarray.Dataset, optional
-        Hourly ``precipitation`` [mm] for the ``straddle="met"`` rule.
-
-    Returns
-    -------
-    table : pandas.DataFrame
-        One row per piece: ``interval`` (sample index), ``period`` (row of `ptable`),
-        ``share`` [1] of the sample in the period.
-    weight : ndarray
-        :math:`w_{ip} = P_i f_{ip} \\langle 1/m \\rangle_{ip}` [mm] per piece (0 where the
-        gauge is not valid), with :math:`\\langle 1/m \\rangle_{ip}` the mean over the piece
-        of one over the number of gauge-valid samples running at each instant.
-    gauge_profile : CoverageProfile
-        Hours covered by gauge-valid samples.
-    origin : numpy.datetime64
-    span : float
-        Origin and length [h] of the hour axis of the profiles.
-    mult : ndarray
-        Mean multiplicity :math:`m_i` of each sample [1] (collocated samplers).
-    """
-    sites = np.unique(screened.variables["site"].values.astype(str))
-    site_idx = pd.Index(sites).get_indexer(screened.variables["site"].values.astype(str))
-    gauge_ok = screened.variables["gauge_valid"].values.astype(bool)
-    depth = screened.variables["gauge_depth_used"].values.astype(float)
-    s_all = screened.variables["start"].values.astype("datetime64[ns]")
-    e_all = screened.variables["end"].values.astype("datetime64[ns]")
-    p_s = ptable["start"].values.astype("datetime64[ns]")
-    p_e = ptable["end"].values.astype("datetime64[ns]")
-    origin = min(s_all.min(), p_s.min()) if len(s_all) else p_s.min()
-    span = (max(e_all.max() if len(e_all) else p_e.max(), p_e.max()) - origin) / np.timedelta64(1, "h")
-    gauge_prof = CoverageProfile(site_idx[gauge_ok], s_all[gauge_ok], e_all[gauge_ok], len(sites),
-                                 origin, span)
-    mult = np.where(gauge_ok, gauge_prof.mean_multiplicity(site_idx, s_all, e_all), 1.0)
-    mult = np.where(mult >= 1.0, mult, 1.0)
-    table = _split(screened, ptable, options, met)
-    weight = _piece_weights(table, gauge_ok, depth, gauge_prof, site_idx)
-    return table, weight, gauge_prof, origin, span, mult
-
-
-def _piece_weights(table, gauge_ok, depth, gauge_prof, site_idx):
-    """w_ip = P_i f_ip <1/m>_ip [mm]: the depth, its share in the period and the mean of
-    1/m over the piece (collocated samplers averaged where they ran together)."""
-    i = table["interval"].values
-    inv = gauge_prof.mean_inverse_multiplicity(
-        site_idx[i], table["start"].values.astype("datetime64[ns]"),
-        table["end"].values.astype("datetime64[ns]"))
-    return np.where(gauge_ok[i], depth[i] * table["share"].values * inv, 0.0)
 
 
 def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptions(),
