@@ -96,9 +96,13 @@ def write_numbered(folder, sites, plain):
 
 def read_once(root, met, sites):
     env = dict(os.environ, PYTHONPATH=str(root))
+    # run from the root: ``python -c`` puts the working folder first on sys.path
     out = subprocess.run([sys.executable, "-c", _CHILD, str(met), str(sites)], env=env,
                          capture_output=True, text=True, check=True, cwd=str(root))
-    return json.loads(out.stdout.strip().splitlines()[-1])
+    got = json.loads(out.stdout.strip().splitlines()[-1])
+    if not Path(got["package"]).resolve().is_relative_to(Path(root).resolve()):
+        raise SystemExit(f"the read for {root} imported {got['package']}")
+    return got
 
 
 def _load():

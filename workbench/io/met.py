@@ -394,10 +394,6 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
     if n_s and n_t:      # the hours are the same for every site: the first site's records
         check_hours(np.repeat(ids[:1].astype(object), n_t), times, where,
                     lambda i: f"time index {i % n_t}")
-        twice = np.flatnonzero(pd.Index(ids).duplicated())
-        if len(twice):
-            raise where(int(twice[0]) * n_t, "duplicate hourly timestamp",
-                        "one row per site and hour (also on time index 0)")
     raw_units = _netcdf_units(raw, path)
     names = list(raw_units)
     if not n_s or not n_t:

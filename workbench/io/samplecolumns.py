@@ -1,0 +1,242 @@
+"""The columns and cells of the sample and air files: the species columns, the
+concentrations in SI with their censored, sentinel and negative cells, the trace depths,
+the flag words and the table of sampling intervals both readers start from.
+
+Moved from :mod:`workbench.io.samples`, which re-exports them.
+"""
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from .. import flags as _flags
+from .. import species as _species
+from ..errors import InputError, suggest
+from ..units import to_amount
+from . import plausible as _plausible
+from .common import check_intervals, check_sites, unit_error
+from .table import RawTable
+
+
+#: Headers shown for missing required columns of the sample and air files.
+REQUIRED_EXAMPLES = {"gauge_depth": "gauge_depth [mm]"}
+#: A file with one time label per row instead of periods (a monitor's hourly export).
+PERIOD_HINTS = {(c, "start"): (f"a {c!r} column: one time label per row (an hourly monitor?): "
+                               "give each row its period, 'start' and 'end' (an hour-ending "
+                               "label 2022-01-01T01:00 is start 2022-01-01T00:00, end "
+                               "2022-01-01T01:00; docs/data_formats.md, \"Setting up your own "
+                               "site, step by step\")")
+                for c in ("time", "date", "datetime", "timestamp")}
+#: Columns with a unit that are not species even when their names look alike.
+_NOT_SPECIES = ("gauge_depth", "sample_depth", "sample_volume", "collector_area", "ph",
+                "conductivity")
+
+
+def _species_columns(tab: RawTable, allowed, what):
+    """Map species -> column name, refusing two columns for one species, a species of
+    the other file kind (``SO4`` in an air file) and a misspelt species (``S02``)."""
+    out = {}
+    choices = [f"{sp}{b}" for sp in allowed for b in ("", "_as_S", "_as_N")
+               if not b or _species.get(sp).element == b[-1]]
+    for name, h in tab.headers.items():
+        if h.species is not None and h.species not in allowed:
+            raise InputError(f"species not measured in {what} files", file=tab.path,
+                             line=tab.header_line, column=tab.raw_headers[name], value=h.species,
+                             expected="one of " + ", ".join(allowed) + suggest(h.name, choices))
+        if h.species is None and h.unit and suggest(h.name, choices) and \
+                h.name.lower() not in _NOT_SPECIES:
+            raise InputError("unknown species", file=tab.path, line=tab.header_line,
+                             column=tab.raw_headers[name], value=h.name,
+                             expected="one of " + ", ".join(allowed) + suggest(h.name, choices))
+        if h.species in allowed:
+            if h.species in out:
+                raise InputError("two columns for one species", file=tab.path,
+                                 line=tab.header_line, column=tab.raw_headers[name],
+                                 expected=f"one column for {h.species} "
+                                 f"(already given as {tab.raw_headers[out[h.species]]!r})")
+            out[h.species] = name
+    return out
+
+
+#: Most negative concentration of an ion in precipitation kept as a blank-subtraction
+#: result (censored as below detection) [mg/L of the ion] (0.5: ten times or more the
+#: detection limits of the major ions by ion chromatography, about 0.01-0.05 mg/L, from
+#: memory; our choice).  A larger negative value is no blank residue (a sign typed, a
+#: cell of another column): it is masked with its reason, never read as below detection,
+#: which the "zero" treatment of censored values would make a complete-looking 0.
+PRECIP_NEGATIVE_TOL_MG_L = 0.5
+
+
+def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero_ok=None,
+                    negative_tol_mg_l=None):
+    """Parse species columns into amounts, with censoring. Returns dict of arrays.
+
+    A missing-value code typed as a value (``-999``, ``9999``...) is masked and flagged;
+    with `groups` (air files: one site-and-sampler label per row) the range and
+    unit-slip checks of :mod:`workbench.io.plausible` run too.  A concentration of
+    exactly 0 is never a measurement (every species here is present at some level): it
+    is censored as below detection, as a negative one, with a reason naming it, except
+    on the rows of `zero_ok` (bool [n]: the dry weeks of a precipitation file, and rows
+    dropped as exact repeats).  With `negative_tol_mg_l` (precipitation) a value below
+    minus that many mg/L of the species is masked with its reason.
+    """
+    data = {}
+    for sp, name in cols.items():
+        unit = tab.unit_of(name)
+        raw, cens = tab.numbers(name, censoring=True, missing="samples")
+        try:
+            amount, kind = _to_amount_by_unit(tab, name, raw, sp)
+        except ValueError as exc:
+            raise unit_error(tab, name, exc, "a concentration unit such as mg/L, umol/L, "
+                             "ueq/L (precipitation) or ug/m3, ppb (air)") from None
+        if kind not in kinds_allowed:
+            raise unit_error(tab, name, ValueError(f"a {kind.replace('_', ' ')}"),
+                             " or ".join(k.replace("_", " ") for k in kinds_allowed))
+        sentinel = ~cens & _plausible.sentinel_mask(raw)
+        ledger_parts.append(_sentinel_reasons(tab, name, sp, sentinel))
+        masked = sentinel
+        if groups is not None:
+            bad, why = _plausible.air_checks(sp, _plausible.as_ugm3(np.where(sentinel, np.nan, amount),
+                                                                     kind, sp), cens, groups,
+                                             unit=unit)
+            masked = masked | bad
+            ledger_parts.append(why)
+        if negative_tol_mg_l is not None:
+            with np.errstate(invalid="ignore"):    # mol m-3 x kg mol-1 = kg m-3 = 1e3 mg/L
+                deep = (~cens & ~masked
+                        & (amount * _species.get(sp).molar_mass * 1e3 < -negative_tol_mg_l))
+            ledger_parts.append(np.where(deep, f"{sp} negative beyond the blank tolerance "
+                                         f"-{negative_tol_mg_l:g} mg/L (masked)", ""))
+            masked = masked | deep
+        amount = np.where(masked, np.nan, amount)
+        neg = (~cens) & (amount < 0)
+        zero = (~cens) & (amount == 0)
+        if zero_ok is not None:
+            zero &= ~zero_ok
+        value = np.where(cens | neg | zero, np.nan, amount)
+        dl = np.where(cens, amount, np.nan)
+        data[sp] = (value, cens | neg | zero, dl, kind)
+        ledger_parts.append(np.where(cens, f"{sp} below detection", ""))
+        ledger_parts.append(np.where(neg, f"{sp} negative (censored)", ""))
+        ledger_parts.append(np.where(zero, f"{sp} reported as 0 (censored as below detection:"
+                                     f" write '<limit', or leave empty if not measured)", ""))
+    return data
+
+
+def _to_amount_by_unit(tab, name, raw, sp):
+    """:func:`workbench.units.to_amount` of column `name`'s numbers `raw` [as written],
+    each row from the unit of the column it was written in (one unit, or the units of
+    a switch, :meth:`RawTable.unit_groups`): converted once, with pint, never through
+    the other unit.  Returns (amount [mol m-3 or mol mol-1], kind); ValueError for a
+    unit that is no concentration of `sp`."""
+    groups = tab.unit_groups(name)
+    if len(groups) == 1:
+        return to_amount(raw, groups[0][0].unit, sp, groups[0][0].basis)
+    amount, kinds = np.full(len(raw), np.nan), set()
+    for h, rows in groups:          # a few units, never a loop over rows
+        part, kind = to_amount(raw[rows], h.unit, sp, h.basis)
+        amount[rows] = part
+        kinds.add(kind)
+    return amount, kinds.pop()      # one kind: two were refused by the switch
+
+
+def _mask_sentinels(tab, name, raw, values, parts):
+    """`values` with the missing-value codes of column `name` masked (NaN).
+
+    The codes are those of :func:`workbench.io.plausible.sentinel_mask`, compared with
+    the number as typed (`raw`, in the column's own unit); each masked row gets the
+    reason ``<column> <value> looks like a missing-value code (masked)``, appended to
+    `parts` (the per-row reasons of the reader).  The same rule as the ion columns.
+
+    Parameters
+    ----------
+    raw : ndarray of float
+        The numbers as typed [the column's unit].
+    values : ndarray of float
+        The same numbers, possibly converted [any unit].
+
+    Returns
+    -------
+    ndarray of float
+        `values` with NaN at the codes [same unit as `values`].
+    """
+    sentinel = _plausible.sentinel_mask(raw)
+    if not sentinel.any():
+        return values
+    parts.append(_sentinel_reasons(tab, name, name.replace("_", " "), sentinel))
+    return np.where(sentinel, np.nan, values)
+
+
+def _sentinel_reasons(tab, name, label, sentinel):
+    """The ledger reason of each row whose column `name` holds a missing-value code
+    (``<label> <value as typed> looks like a missing-value code (masked)``; "" else)."""
+    return np.where(sentinel, f"{label} " + tab.frame[name].to_numpy(dtype=object).astype(str)
+                    + " looks like a missing-value code (masked)", "")
+
+
+#: Texts a gauge or collector record may hold for a trace of precipitation.
+_TRACE_TEXTS = ("trace", "tr", "t")
+
+
+def _trace_depth_error(exc: InputError) -> InputError:
+    """`exc`, or for a trace typed as text in a depth column ('trace', 'T') the error with
+    the advice to write 0: an empty cell would make a measured (near) dry week a missing
+    gauge reading, a gap in the gauge record and the coverage (docs/methods_wet.md 7)."""
+    if str(exc.value).strip().lower() not in _TRACE_TEXTS:
+        return exc
+    return InputError("a trace of precipitation typed as text", file=exc.file, line=exc.line,
+                      column=exc.column, value=exc.value,
+                      expected="a depth in mm: 0 for a trace (a measured dry or trace week "
+                      "counts as covered; an empty cell is a missing reading, a gap), with "
+                      "the flag 'trace' when the sample was too small to analyse")
+
+
+def _flag_words(tab, flag_text, flag_map):
+    """The flags column as our words, space-joined per row (lab codes translated).
+
+    Returns ``(words, note)``: an object array (one text per row) and a ledger note
+    naming the lab codes translated and their row counts ("" when none were).
+    Raises a located error for a code that is neither a word of ours nor a code of
+    the mapping file.
+    """
+    if flag_map is not None and not isinstance(flag_map, dict):
+        map_name = Path(flag_map).name
+        flag_map = _flags.read_flag_map(flag_map)
+    else:
+        map_name = "the flag mapping"
+    codes = pd.Series(flag_text, dtype=object).str.replace(r"[,;]", " ", regex=True).str.split()
+    each = codes.explode()
+    lab = each.isin(list(flag_map)) if flag_map else pd.Series(False, index=each.index)
+    bad = each.notna() & ~each.isin(list(_flags.FLAGS)) & ~lab
+    if bad.any():
+        i = int(bad.index[np.flatnonzero(bad.to_numpy())[0]])
+        hint = (f" or a code of {map_name}" if flag_map else
+                " (a lab's own codes can be translated with a mapping file named as "
+                "[inputs] flag_map in the scenario, see docs/data_formats.md)")
+        raise tab.error("unknown flag code", row=i, column="flags", value=each[bad].iloc[0],
+                        expected=_flags.words_hint() + hint)
+    if not lab.any():
+        return codes.str.join(" ").to_numpy(dtype=object), ""
+    used = each[lab].groupby(level=0).unique().explode().value_counts(sort=False)
+    note = f"lab flag codes translated with {map_name}: " + ", ".join(
+        f"{c} -> {' '.join(flag_map[c]) or '(nothing)'} ({k} row{'s' * (k != 1)})"
+        for c, k in used.items())
+    words = each.where(~lab, each.map({c: " ".join(w) for c, w in flag_map.items()}))
+    words = words.str.split().explode().dropna()
+    joined = words.groupby(level=0).agg(" ".join)
+    return joined.reindex(range(len(codes)), fill_value="").to_numpy(dtype=object), note
+
+
+def _interval_table(path, catalogue, required):
+    """Read a file of intervals: checked sites, UTC start and end, sampler ids."""
+    tab = RawTable.read(path)
+    tab.require(required, examples=REQUIRED_EXAMPLES, hints=PERIOD_HINTS)
+    n = len(tab.frame)
+    sites = check_sites(tab, catalogue)
+    off = catalogue.utc_offsets(sites)
+    start, end = tab.times("start", off), tab.times("end", off)
+    check_intervals(tab, start, end)
+    samplers = tab.text("sampler_id") if tab.has("sampler_id") else np.full(n, "", object)
+    return tab, n, sites, start, end, samplers

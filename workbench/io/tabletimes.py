@@ -1,0 +1,114 @@
+"""Time texts of our CSV files: ISO 8601 labels (a day's end written 24:00 read as the
+next day's 00:00, with its ledger note), the plausible years, and the readings of a date
+written day/month or month/day.
+
+Moved from :mod:`workbench.io.table`, which re-exports them.
+"""
+from __future__ import annotations
+
+import re
+
+import numpy as np
+import pandas as pd
+
+from .ledger import compact_lines
+
+
+_OFFSET = re.compile(r"[T ]\d\d.*(?:Z|[+-]\d\d(?::?\d\d)?)$")
+
+#: Timestamps outside [YEARS[0], YEARS[1]) are typing slips in the year (common practice).
+YEARS = (np.datetime64("1900-01-01", "ns"), np.datetime64("2100-01-01", "ns"))
+#: The end of a day written as 24:00 (ISO 8601:2004, 4.2.3; from memory), with or without
+#: seconds and a zone: read as 00:00 of the next day, with a note.
+_END_OF_DAY = re.compile(r"\d{4}-\d\d-\d\d[T ]24:00(?::00(?:\.0+)?)?(?:Z|[+-]\d\d(?::?\d\d)?)?")
+
+
+def end_of_day(text: pd.Series) -> np.ndarray:
+    """True for the texts that label a day's end as 24:00 [bool].
+
+    >>> end_of_day(pd.Series(["2021-04-03T24:00", "2021-04-03 24:00+01:00", "24:00",
+    ...                       "2021-04-03T23:00", "2021-04-03T24:30"])).tolist()
+    [True, True, False, False, False]
+    """
+    return text.astype(str).str.fullmatch(_END_OF_DAY).to_numpy(dtype=bool)
+
+
+def parse_iso(text: pd.Series, utc: bool) -> np.ndarray:
+    """ISO 8601 time texts as datetime64[ns]; NaT where a text is no time.
+
+    `utc`: the texts carry an offset (converted to UTC, the zone dropped); else they are
+    naive and returned as written (local standard time, shifted by the caller).  A day's
+    end written 24:00 is 00:00 of the next day (:func:`end_of_day`).
+    """
+    eod = end_of_day(text)
+    if eod.any():
+        text = text.copy()
+        text[eod] = text[eod].str.replace("24:00", "00:00", n=1, regex=False)
+    t = pd.to_datetime(text, format="ISO8601", utc=utc, errors="coerce")
+    if utc:
+        t = t.dt.tz_localize(None)
+    out = t.to_numpy().astype("datetime64[ns]")
+    if eod.any():
+        out[eod] = out[eod] + np.timedelta64(1, "D")
+    return out
+
+
+#: A date in day/month or month/day order (``01/02/2021``, ``1.2.21``, ``21-01-2021``),
+#: with the rest of the label (a time) after it.
+_DAY_MONTH = re.compile(r"(\d{1,2})([./-])(\d{1,2})\2(\d{4}|\d{2})(?![\d./-])(.*)")
+
+
+def day_month_readings(text: str) -> str:
+    """The ISO 8601 readings of a date written day/month or month/day ("" if none).
+
+    A two-digit year is read in 2000-2099 (our choice: the records we read are of
+    this century; the message shows the reading, so a wrong one is seen).
+
+    >>> day_month_readings("01/02/2021")
+    '2021-02-01 if day first, 2021-01-02 if month first'
+    >>> day_month_readings("21.1.21 14:00")
+    '2021-01-21T14:00 (day first; no month 21)'
+    >>> day_month_readings("2021/01/21")
+    ''
+    """
+    m = _DAY_MONTH.fullmatch(text.strip())
+    if not m:
+        return ""
+    a, b, year, rest = int(m.group(1)), int(m.group(3)), m.group(4), m.group(5).strip()
+    year = int(year) + 2000 if len(year) == 2 else int(year)
+    tail = "T" + rest if re.fullmatch(r"\d\d:\d\d(:\d\d)?", rest) else ""
+
+    def iso(month, day):
+        return f"{year:04d}-{month:02d}-{day:02d}{tail}"
+    day_first, month_first = 1 <= b <= 12 and 1 <= a <= 31, 1 <= a <= 12 and 1 <= b <= 31
+    if day_first and month_first:
+        return (iso(b, a) if a == b else
+                f"{iso(b, a)} if day first, {iso(a, b)} if month first")
+    if day_first:
+        return f"{iso(b, a)} (day first; no month {a})"
+    if month_first:
+        return f"{iso(a, b)} (month first; no month {b})"
+    return "no day/month reading fits; e.g. 2020-01-09T14:00"
+
+
+def end_of_day_note(file_name: str, columns, lines) -> str:
+    """The ledger note of the columns whose 24:00 labels were read as the next day's 00:00
+    ("" for none), with the count of the rows and their lines (:func:`.ledger.compact_lines`).
+
+    Parameters
+    ----------
+    file_name : str
+    columns : list of str
+        Header names of the time columns holding a 24:00 label.
+    lines : array of int
+        File lines (1-based) of the rows with such a label, in any of `columns` [1].
+
+    >>> end_of_day_note("p.csv", ["start", "end"], [4, 5, 6, 9])
+    "p.csv: labels at 24:00 (end of day) in 'start', 'end' read as 00:00 of the next day: 4 rows (lines 4-6, 9)"
+    """
+    if not columns:
+        return ""
+    v = np.unique(np.asarray(lines, dtype=np.int64))
+    return (f"{file_name}: labels at 24:00 (end of day) in "
+            f"{', '.join(repr(c) for c in columns)} read as 00:00 of the next day: "
+            f"{len(v)} row{'s' * (len(v) != 1)} ({compact_lines(v)})")
