@@ -24,6 +24,9 @@ def test_budget_words_not_the_exceedance_rule():
     assert totals_status(_span(["missing", "filled"], ["SO2 pSO4", ""]), "lake") == \
         "S missing, N filled"
     assert totals_status(_span(["complete", "partial"], ["", "NO2"]), "grass") == ""
+    # S first whatever the table's order of the elements
+    assert totals_status(_span(["complete", "partial"], ["", "NO2"]).iloc[::-1], "lake") == \
+        "S complete, N partial (no NO2)"
 
 
 def test_the_column_under_status_of_the_totals_is_the_budgets():

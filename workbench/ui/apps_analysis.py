@@ -562,6 +562,7 @@ def totals_status(table, receptor) -> str:
                       f" (no {lack})" if lack and r["status"] != "missing" else ""))
     if not words:
         return ""
+    words.sort(key=lambda w: ("S", "N").index(w[0]) if w[0] in ("S", "N") else 2)
     if len({w[1] for w in words}) == 1 and not any(w[2] for w in words):
         return words[0][1]
     return ", ".join(f"{el} {st}{lack}" for el, st, lack in words)
