@@ -99,3 +99,19 @@ def test_velocities_nc_marks_the_first_hour(first_hour_study, tmp_path):
         wet = ds["surface_wet"].values
         assert (wet[codes == 5] == 0).all() and (wet[codes == 1] == 1).all()
         assert (wet[codes == 3] == 0).all() and (wet[codes == 2] == 1).all()
+
+
+def test_wetness_source_is_int8_in_memory(first_hour_in_2021):
+    """The run's velocities hold ``wetness_source`` as int8 codes, -1 where the wetness
+    is unknown (the file's ``flag_values``), 1 byte a site-hour and receptor; it was
+    float64 with NaN (8 bytes) until velocities.nc was written.  A pair no site asks for
+    holds -1 (unknown), never 0, which is a real code ("met file")."""
+    v = first_hour_in_2021.velocities
+    src = v["wetness_source"]
+    assert src.dtype == np.int8
+    assert list(np.asarray(src.attrs["flag_values"]).tolist()) == list(range(-1, 6))
+    codes = src.transpose("site", "receptor", "time").values
+    assert set(np.unique(codes).tolist()) <= set(range(-1, 6))
+    active = v["active"].transpose("site", "receptor").values
+    assert (~active).any() and (codes[~active] == -1).all()
+    assert (codes[active][:, 0] == 5).all()         # the record's first hour, as before

@@ -44,7 +44,7 @@ def _on_receptors(ds, receptors):
         ax = v.dims.index("receptor")
         shape = list(v.shape)
         shape[ax] = len(receptors)
-        full = np.full(shape, fill_value(v.dtype), dtype=v.dtype)
+        full = np.full(shape, fill_value(v.dtype, v.attrs), dtype=v.dtype)
         where = [slice(None)] * v.ndim
         where[ax] = pos
         full[tuple(where)] = v.values
@@ -58,7 +58,7 @@ def _on_receptors(ds, receptors):
 
 
 def _reindexed(ds, receptors):
-    fill = {v: fill_value(ds[v].dtype) for v in ds.data_vars if "receptor" in ds[v].dims}
+    fill = {v: fill_value(ds[v].dtype, ds[v].attrs) for v in ds.data_vars if "receptor" in ds[v].dims}
     out = ds.reindex(receptor=list(receptors), fill_value=fill)
     for v in fill:                      # reindex widens bool and int; keep the dtypes
         if out[v].dtype != ds[v].dtype and ds[v].dtype.kind in "biu":
@@ -118,8 +118,11 @@ def _concat(parts, dim, receptors=None):
     stacked = _stacked(parts, dim)     # blocks of one layout: numpy (the same result)
     if stacked is not None:
         return stacked
+    # an outer join fills by dtype and flags (int8 ``wetness_source`` -1, not a float NaN)
+    fill = {n: fill_value(v.dtype, v.attrs) for n, v in parts[0].data_vars.items()
+            if v.dtype.kind in "iu" and "flag_meanings" in v.attrs}
     return xr.concat(parts, dim=dim, data_vars="minimal", coords="minimal", compat="override",
-                     join="outer" if dim == "sample" else "exact",
+                     join="outer" if dim == "sample" else "exact", fill_value=fill,
                      combine_attrs=_combine_attrs)
 
 
@@ -213,7 +216,7 @@ def _assembled(parts, receptors, sites):
         dtype = np.result_type(*[x.dtype for x in vs])
         shape = [len(order) if d == "site" else (len(rec) if d == "receptor" and rec else s)
                  for d, s in zip(v.dims, v.shape)]
-        out = np.full(shape, fill_value(dtype), dtype=dtype)
+        out = np.full(shape, fill_value(dtype, v.attrs), dtype=dtype)
         for x, rp, sp in zip(vs, rec_pos, site_pos):
             axes = [sp if d == "site" else
                     (rp if d == "receptor" and rp is not None else np.arange(s))

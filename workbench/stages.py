@@ -264,7 +264,7 @@ def wanted_pairs(o, sites, receptors, **parts):
         a = np.empty(shape, dtype=v.dtype)          # every element written once below
         axes = [v.dims.index(d) for d in ("site", "receptor") if d in v.dims]
         view = np.moveaxis(a, axes, range(len(axes)))          # (site[, receptor], ...)
-        view[~(covered if len(axes) == 2 else covered.any(axis=1))] = fill_value(v.dtype)
+        view[~(covered if len(axes) == 2 else covered.any(axis=1))] = fill_value(v.dtype, v.attrs)
         for p, w in zip(parts, where):
             pv = p.variables[name]
             got = np.moveaxis(np.asarray(pv.transpose(*v.dims).values), axes,

@@ -288,7 +288,7 @@ def in_force(vel: xr.Dataset, history, receptors, real_active=None) -> xr.Datase
                     got = np.moveaxis(src_view[i], ti + 1, 1)     # (receptor, time, ...)
                     np.moveaxis(view[i, j], ti, 0)[...] = got[s_idx, hours]
             if pairs_off is not None and pairs_off.any() and name != "active":
-                view[pairs_off] = fill_value(v.dtype)
+                view[pairs_off] = fill_value(v.dtype, v.attrs)
         out[name] = xr.Variable(v.dims, a, dict(v.attrs))
     if take:
         for n_name, flag in COUNT_OF.items():

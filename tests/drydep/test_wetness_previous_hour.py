@@ -60,6 +60,7 @@ def test_first_hour_and_hour_after_gap_are_modelled(case):
         assert np.isfinite(ds["vd_SO2"].values[..., t]).all(), t
         assert np.isfinite(ds["vd_pSO4"].values[..., t]).all(), t
     assert np.isnan(wet[..., 70]).all()          # own met missing: stays unknown
+    assert src.dtype == np.int8 and (src[..., 70] == -1).all()     # -1: unknown
     assert np.isnan(ds["vd_SO2"].values[..., 70]).all()
     assert (wet[..., 47] == 1).all()             # rain the hour before
     assert (src == 5).sum() == 2 * src[..., 0].size
@@ -72,6 +73,7 @@ def test_chunked_in_time_equals_whole_bit_for_bit(case, chunk):
     whole = velocities(met, surfaces, OPT)
     lazy = velocities(met.chunk({"time": chunk}), surfaces, OPT).compute()
     xr.testing.assert_identical(whole, lazy)
+    assert lazy["wetness_source"].dtype == np.int8      # the lazy template's dtype too
     assert (whole["surface_wet"].values[..., 47] == 1).all()
 
 

@@ -182,7 +182,9 @@ def path_table(parts, cuts, loads, mode="air_and_wet", steps=PATH_STEPS) -> pd.D
     DataFrame
         ``fraction`` [1], the cut of each group [1], ``s_dep_eq_ha_yr``,
         ``n_dep_eq_ha_yr``, ``ex_acidity_eq_ha_yr``, ``region``,
-        ``ex_nutrient_n_eq_ha_yr`` [eq ha-1 yr-1], and ``mode``.
+        ``ex_nutrient_n_eq_ha_yr`` [eq ha-1 yr-1], ``mode``, and ``ends_exceedance``
+        (True on a fraction that ends an exceedance: its percents are said rounded up by
+        :func:`percent_up`, in the sentence and in the table alike).
     """
     s0, n0, a, b = (float(v) for v in _cut_rate(parts, cuts, mode))
     t_acid, t_nut = (float(v) for v in smallest_fraction(parts, cuts, loads, mode))
@@ -196,7 +198,8 @@ def path_table(parts, cuts, loads, mode="air_and_wet", steps=PATH_STEPS) -> pd.D
         frame[f"cut_{g}"] = t * float(cuts.get(g, 0.0))
     frame = frame.assign(s_dep_eq_ha_yr=s, n_dep_eq_ha_yr=n, ex_acidity_eq_ha_yr=ex.exceedance,
                          region=ex.region, ex_nutrient_n_eq_ha_yr=nutrient_n_exceedance(
-                             np.maximum(n, 0.0), loads.get("cl_nut_n", np.nan)), mode=mode)
+                             np.maximum(n, 0.0), loads.get("cl_nut_n", np.nan)), mode=mode,
+                         ends_exceedance=np.isin(t, [v for v in (t_acid, t_nut) if 0 < v < 1]))
     return frame
 
 
@@ -205,15 +208,19 @@ def path_table(parts, cuts, loads, mode="air_and_wet", steps=PATH_STEPS) -> pd.D
 PERCENT_NOISE = 1e-9
 
 
-def percent_up(fraction) -> int:
+def percent_up(fraction):
     """A needed fraction [1] as whole percent [%], rounded up: cutting the stated percent
     ends the exceedance (rounded to the nearest, 17.4 % read "17 %", and a cut of 17 %
-    left an exceedance).
+    left an exceedance).  The one rounding of a needed cut: the explorer's sentence,
+    the star of its figure and the rows of its table that end an exceedance.
 
     >>> percent_up(0.174), percent_up(0.25), percent_up(0.003)
     (18, 25, 1)
+    >>> percent_up(np.array([1 / 3, 0.5])).tolist()
+    [34.0, 50.0]
     """
-    return int(np.ceil(100.0 * float(fraction) - PERCENT_NOISE))
+    up = np.ceil(100.0 * np.asarray(fraction, dtype=float) - PERCENT_NOISE)
+    return int(up) if up.ndim == 0 else up
 
 
 def _cuts_text(cuts, t) -> str:

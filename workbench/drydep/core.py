@@ -268,6 +268,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         dew = _wetness.dew_wet(deficit, us_r)
         given = st("surface_wet") if "surface_wet" in block else None
         wet, kind, wet_src = _wetness.wetness(opt.wetness_rule, rain, dew, given, assumed)
+        wet_src = _wetness.source_codes(wet_src)      # int8, -1 unknown: 1 byte an hour
 
         here = locals()
         return {k: here[k] for k in _STATE_OUT}
@@ -448,7 +449,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                                codes=str(_seasons.SOURCE)),
         "surface_wet": lambda: srt(wet, "1", "surface wetness used (1 wet, 0 dry)"),
         "wet_kind": lambda: srt(kind, "1", "kind of wetness: 0 dry, 1 dew, 2 rain"),
-        "wetness_source": lambda: srt(wet_src, "1", "source of the wetness", codes=str(_wetness.SOURCE)),
+        "wetness_source": lambda: srt(wet_src, "1", "source of the wetness", codes=str(_wetness.SOURCE),
+                                      **_wetness.source_attrs()),
         "met_friction_velocity": lambda: sto(us_m, "m s-1", "friction velocity over the wind mast's surface"),
         "met_sensible_heat_flux": lambda: sto(np.where(ok, h_m, np.nan), "W m-2",
                                       "sensible heat flux over the wind mast's surface"),

@@ -53,8 +53,9 @@ DEW_RULES = ("scheme", "surface_temperature", "air_temperature")
 RB_HEAT_PREFACTOR = 2.0
 #: Codes of ``wetness_source``, one row each: (code, CF ``flag_meanings`` word, words
 #: in a sentence).  The CF words follow CF 1.8 section 3.5 (blank-separated, no blanks
-#: inside a word); -1 is an hour whose wetness is unknown (an input missing), a code of
-#: the flags only (``Study.velocities`` keeps NaN there).
+#: inside a word); -1 is an hour whose wetness is unknown (an input missing), as
+#: ``Study.velocities`` holds it in memory (int8, :func:`source_codes`) and velocities.nc
+#: writes it.
 SOURCE_TABLE = (
     (-1, "unknown", None),
     (0, "met_file_surface_wet", "met file (surface_wet)"),
@@ -72,6 +73,37 @@ SOURCE = {code: words for code, _, words in SOURCE_TABLE if words is not None}
 #: :data:`SOURCE_TABLE`).
 SOURCE_FLAGS = {code: flag for code, flag, _ in SOURCE_TABLE}
 
+def source_codes(source):
+    """``wetness_source`` as int8 codes, -1 where the wetness is unknown.
+
+    Parameters
+    ----------
+    source : array_like
+        Codes of :data:`SOURCE` as :func:`wetness` gives them (float, NaN where the
+        wetness is unknown), or int8 codes already (returned as they are). [1]
+
+    Returns
+    -------
+    codes : array_like of int8
+        The input's type (numpy, dask or xarray). [1]
+
+    >>> source_codes(np.array([5.0, np.nan, 1.0])).tolist()
+    [5, -1, 1]
+    """
+    if np.dtype(source.dtype).kind in "iu":
+        return source.astype(np.int8)
+    return where(np.isnan(source), -1, source).astype(np.int8)
+
+
+def source_attrs() -> dict:
+    """The CF flag attributes of ``wetness_source`` (CF 1.8 section 3.5): ``flag_values``
+    (-1 unknown; a tuple of ints, which attributes of blocks compare as one value) and
+    ``flag_meanings``; the in-memory variable has them too, so that a pair not computed
+    is filled with -1 (:func:`workbench.pairfill.fill_value`)."""
+    return {"flag_values": tuple(sorted(SOURCE_FLAGS)),
+            "flag_meanings": " ".join(SOURCE_FLAGS[k] for k in sorted(SOURCE_FLAGS))}
+
+
 def source_flags(source):
     """``wetness_source`` as a CF flag variable: int8 codes (-1 where unknown) and
     their attributes.
@@ -79,7 +111,8 @@ def source_flags(source):
     Parameters
     ----------
     source : array_like
-        Codes of :data:`SOURCE`, NaN where the wetness is unknown. [1]
+        int8 codes (-1 unknown), or codes of :data:`SOURCE` as floats with NaN where the
+        wetness is unknown. [1]
 
     Returns
     -------
@@ -91,12 +124,9 @@ def source_flags(source):
     >>> codes.tolist(), attrs["flag_meanings"].split()[codes[0] + 1]
     ([5, -1, 1], 'inferred_dry_previous_hour_rain_unknown')
     """
-    s = np.asarray(source, float)
-    codes = np.where(np.isnan(s), -1, s).astype(np.int8)
-    attrs = {"long_name": "source of the surface wetness used",
-             "flag_values": np.array(sorted(SOURCE_FLAGS), np.int8),
-             "flag_meanings": " ".join(SOURCE_FLAGS[k] for k in sorted(SOURCE_FLAGS))}
-    return codes, attrs
+    return (np.asarray(source_codes(np.asarray(source))),
+            {"long_name": "source of the surface wetness used", **source_attrs(),
+             "flag_values": np.array(sorted(SOURCE_FLAGS), np.int8)})
 
 
 def tri_or(a, b):

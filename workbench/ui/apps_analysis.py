@@ -12,7 +12,8 @@ import pandas as pd
 from ..analysis.exceedance import (REGIONS, acidity_exceedance, not_determined,
                                    nutrient_n_exceedance)
 from ..analysis.trends import MIN_YEARS
-from ..analysis.whatif import GROUP_TEXT, GROUPS, MODES, group_deposition, path_table, plain_statement
+from ..analysis.whatif import (GROUP_TEXT, GROUPS, MODES, group_deposition, path_table, percent_up,
+                               plain_statement)
 from ..io.critical_loads import ACIDITY_KEYS
 from .figure_open import page
 from .controls import fit_options_width
@@ -62,10 +63,17 @@ def path_display(path: pd.DataFrame, lower=False, lower_n=False) -> pd.DataFrame
     `lower` (S or N partial) and `lower_n` (N partial), as :func:`lower_bound`: the
     acidity and the nutrient-N exceedance columns say in their headings that they rest
     on a partial deposition (a 0 there is not determined, as the line above the figure
-    says; the table showed a bare 0 under "acidity exceedance not determined")."""
+    says; the table showed a bare 0 under "acidity exceedance not determined").
+
+    A row that ends an exceedance (``ends_exceedance``) gives its percents rounded up to
+    a whole percent by :func:`workbench.analysis.whatif.percent_up`, as the sentence
+    above it does (the table read 33.3 where the sentence said "34 %"); the other rows
+    are points of the path, shown as they are."""
     t = path[list(PATH_COLUMNS)].copy()
+    ends = (path["ends_exceedance"].to_numpy(bool) if "ends_exceedance" in path
+            else np.zeros(len(path), bool))
     for c in ("fraction", "cut_S", "cut_NOx", "cut_NHx"):
-        t[c] = 100.0 * t[c]
+        t[c] = np.where(ends, percent_up(t[c].to_numpy(float)), 100.0 * t[c].to_numpy(float))
     heads = dict(PATH_HEADINGS)
     if lower:
         heads["ex_acidity_eq_ha_yr"] += LOWER_HEADING
@@ -441,9 +449,11 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
         site, receptor; ``S_trend`` and ``N_trend`` (Sen slope of the annual totals
         [unit per yr], with p and "not valid" when fewer than the minimum of complete
         years); the span's ``ex_acidity_eq_ha_yr``, ``ex_nutrient_n_eq_ha_yr``,
-        ``exceedance_status`` and ``exceedance_note`` (the note of ``exceedance.csv``:
-        an empty exceedance on a partial deposition is "not determined", a positive one
-        a lower bound; the table showed "–" and a bare number there).
+        ``totals_status`` (the budget's own status of the S and N totals,
+        :func:`totals_status`: it showed exceedance.csv's status, which counts a partial
+        total as flagged) and ``exceedance_note`` (the note of ``exceedance.csv``: an
+        empty exceedance on a partial deposition is "not determined", a positive one a
+        lower bound; the table showed "–" and a bare number there).
     """
     import pandas as pd
 
@@ -479,12 +489,12 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
                 + ")")
         row.update(ex_acidity_eq_ha_yr=p["ex_acidity_eq_ha_yr"],
                    ex_nutrient_n_eq_ha_yr=p["ex_nutrient_n_eq_ha_yr"],
-                   exceedance_status=p["exceedance_status"],
+                   totals_status=p.get("totals_status", ""),
                    exceedance_note=p["exceedance_note"])
         rows.append(row)
     return pd.DataFrame(rows, columns=["site", "receptor", "S_trend", "N_trend",
                                        "ex_acidity_eq_ha_yr", "ex_nutrient_n_eq_ha_yr",
-                                       "exceedance_status", "exceedance_note"])
+                                       "totals_status", "exceedance_note"])
 
 
 #: Years below which the serial correction of the annual test sees only a strong
@@ -527,16 +537,35 @@ def trend_unit(element: str, unit: str) -> str:
     return f"{amount} {element}/{rest}" if amount in ("kg", "mmol") else unit
 
 
-def _lacking(table, receptor) -> str:
-    """`` (N without NO2)``: the components the span's S and N totals of `receptor` lack,
-    for the status of an exceedance (``flagged`` covers a partial deposition too, and
-    read as merely flagged beside the table's "status of the totals"); ``""`` when none."""
+def totals_status(table, receptor) -> str:
+    """The budget's own status of the span's S and N totals of `receptor` (docs/budget.md,
+    "Status"), with the components each lacks: ``"S complete, N partial (no NO2)"``;
+    one word where both totals have it and lack nothing (``"complete"``); ``""`` without
+    a span total.  The exceedance's status (``exceedance.csv``) counts a partial total as
+    flagged; this column says which it is.
+
+    >>> import pandas as pd
+    >>> t = pd.DataFrame({"period": "span", "receptor": "lake", "pathway": "total",
+    ...                   "species": "all", "element": ["S", "N"],
+    ...                   "status": ["complete", "partial"],
+    ...                   "missing_components": ["", "NO2"]})
+    >>> totals_status(t, "lake")
+    'S complete, N partial (no NO2)'
+    """
     span = table[(table["period"].astype(str) == "span") & (table["receptor"] == receptor)
                  & (table["pathway"] == "total") & (table["species"] == "all")]
-    parts = [f"{r['element']} without {', '.join(str(r['missing_components']).split())}"
-             for _, r in span.iterrows()
-             if isinstance(r.get("missing_components"), str) and r["missing_components"].strip()]
-    return f" ({'; '.join(parts)})" if parts else ""
+    words = []
+    for _, r in span.iterrows():
+        m = r.get("missing_components")
+        lack = ", ".join(m.split()) if isinstance(m, str) else ""
+        words.append((str(r["element"]), str(r["status"]),
+                      f" (no {lack})" if lack and r["status"] != "missing" else ""))
+    if not words:
+        return ""
+    words.sort(key=lambda w: ("S", "N").index(w[0]) if w[0] in ("S", "N") else 2)
+    if len({w[1] for w in words}) == 1 and not any(w[2] for w in words):
+        return words[0][1]
+    return ", ".join(f"{el} {st}{lack}" for el, st, lack in words)
 
 
 def network_analysis_parts(results: dict, catalogue,
@@ -558,9 +587,11 @@ def network_analysis_parts(results: dict, catalogue,
         without a trend row), ``{el}_method_changes`` (the changes of method the trend's
         years cross, trends.csv's ``method_changes``); ``ex_acidity_eq_ha_yr``,
         ``ex_nutrient_n_eq_ha_yr``
-        [eq ha-1 yr-1] and ``exceedance_status`` of the span (exceedance.csv's status,
-        with the components the S and N totals lack: ``flagged (N without NO2)``) and
-        ``exceedance_note`` (its note in exceedance.csv).
+        [eq ha-1 yr-1], ``exceedance_status`` of the span (exceedance.csv's status: a
+        partial total counts as ``flagged`` there; "no critical loads" without them) and
+        ``exceedance_note`` (its note in exceedance.csv); ``totals_status``: the budget's
+        own status of the span's S and N totals (:func:`totals_status`, ``S complete, N
+        partial (no NO2)``), the table's "status of the totals".
     """
     import pandas as pd
 
@@ -597,11 +628,12 @@ def network_analysis_parts(results: dict, catalogue,
             e = ex.iloc[0]
             row.update(ex_acidity_eq_ha_yr=e["ex_acidity_eq_ha_yr"],
                        ex_nutrient_n_eq_ha_yr=e["ex_nutrient_n_eq_ha_yr"],
-                       exceedance_status=e["status"] + _lacking(res.table, own),
-                       exceedance_note=e["note"])
+                       exceedance_status=e["status"], exceedance_note=e["note"])
         else:
             row.update(ex_acidity_eq_ha_yr=np.nan, ex_nutrient_n_eq_ha_yr=np.nan,
-                       exceedance_status="no critical loads", exceedance_note="")
+                       exceedance_status="no critical loads",
+                       exceedance_note="no critical loads for this receptor")
+        row["totals_status"] = totals_status(res.table, own)
         rows.append(row)
     return pd.DataFrame(rows)
 

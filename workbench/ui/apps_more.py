@@ -272,7 +272,7 @@ def sweep_statuses(table: pd.DataFrame) -> pd.Series:
 ANALYSIS_HEADINGS = {"S_trend": "S trend", "N_trend": "N trend",
                      "ex_acidity_eq_ha_yr": "acidity exceedance",
                      "ex_nutrient_n_eq_ha_yr": "nutrient-N exceedance",
-                     "exceedance_status": "status of the totals",
+                     "totals_status": "status of the totals",
                      "exceedance_note": "exceedance note"}
 
 #: Columns of sentences in that table (at least WIDE_COLUMN wide: the table scrolls).
