@@ -161,3 +161,36 @@ def test_a_paused_worker_still_running_its_block_is_not_given_up(monkeypatch):
         "(what it needs; the workers have a memory limit of 238 MiB); give each worker "
         "more memory (start them with a larger `dask worker --memory-limit`) or what to "
         "change")
+
+
+class _Restarting(_Client):
+    """A client whose one worker is being restarted by its nanny: the scheduler knows no
+    worker for the first `gone` looks, then the worker is back."""
+
+    def __init__(self, workers, gone):
+        super().__init__(workers)
+        self.gone = gone
+
+    def scheduler_info(self, n_workers=0):
+        self.gone -= 1
+        return {"workers": {} if self.gone >= 0 else self.workers}
+
+
+def test_the_limit_is_named_when_the_watch_began_while_a_worker_restarted():
+    """A watch begun while the cluster's one worker was being restarted (the task before
+    had killed it) saw no worker, and its message said "an unknown memory limit" (seen
+    under load in tests/test_grid_worker_memory.py, whose two tests share a cluster):
+    the limit is now looked up again, once the worker is back, when the message is made."""
+    words = lambda: ("a block of 16 x 16 cells", "what it needs", "what to change")  # noqa: E731
+    client = _Restarting({"tcp://b": _paused(1)}, gone=3)
+    watcher = worker_memory.watch(client, words, "the grid")
+    assert watcher.limits == worker_memory.UNKNOWN_LIMIT
+    err = watcher.error(worker_memory.DIED)
+    assert "(what it needs; the workers have a memory limit of 238 MiB)" in str(err), err
+
+
+def test_no_worker_back_in_time_says_the_limit_is_unknown(monkeypatch):
+    monkeypatch.setattr(worker_memory, "LIMIT_WAIT_S", 0.3)
+    words = lambda: ("a block", "what it needs", "what to change")  # noqa: E731
+    watcher = worker_memory.watch(_Client({}), words, "the grid")
+    assert "the workers have an unknown memory limit" in str(watcher.error(worker_memory.DIED))

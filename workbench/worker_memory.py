@@ -32,6 +32,11 @@ from .errors import WorkbenchError
 PAUSED_GIVE_UP_S = 60.0
 #: How often the workers' states are looked at while a task runs [s].
 POLL_S = 1.0
+#: Longest wait for a worker to be back (a nanny's restart takes a few seconds) when
+#: the message is made and no worker's limit has been seen yet [s] (our choice).
+LIMIT_WAIT_S = 10.0
+#: The words of :func:`_limits` when no worker is there to tell its limit.
+UNKNOWN_LIMIT = "an unknown memory limit"
 
 
 class WorkerMemoryError(WorkbenchError):
@@ -60,7 +65,7 @@ def _limits(client, workers=None) -> str:
         workers = list(workers.values())
     limits = sorted({int(w.get("memory_limit") or 0) for w in workers})
     if not limits:
-        return "an unknown memory limit"
+        return UNKNOWN_LIMIT
     if limits == [0]:
         return "no memory limit of their own (the machine's memory)"
     if len(limits) == 1:
@@ -100,6 +105,17 @@ def memory_error(client, limits: str, what: str, needs: str, smaller: str,
         f"({_change(client)}) or {smaller}")
 
 
+def _limits_when_back(client, wait_s=None) -> str:
+    """:func:`_limits` of the workers once one is connected, waiting up to `wait_s`
+    seconds (default :data:`LIMIT_WAIT_S`) for a restarted worker to come back."""
+    end = time.monotonic() + (LIMIT_WAIT_S if wait_s is None else wait_s)
+    while True:
+        workers = _workers(client)
+        if workers or time.monotonic() >= end:
+            return _limits(client, workers)
+        time.sleep(0.2)
+
+
 class _PauseWatch:
     """Raises when no worker of the cluster has been running (every one paused with no
     task running on it, or none there) for :data:`PAUSED_GIVE_UP_S` seconds on end."""
@@ -115,6 +131,10 @@ class _PauseWatch:
         self.seen = set(workers)
 
     def error(self, how) -> WorkerMemoryError:
+        if self.limits == UNKNOWN_LIMIT:
+            # no worker was there when the watch began (the nanny was restarting the
+            # one a task before this had killed): its limit once it is back
+            self.limits = _limits_when_back(self.client)
         what, needs, smaller = self.describe()
         return memory_error(self.client, self.limits, what, needs, smaller, how, self.job)
 
