@@ -14,9 +14,10 @@ import numpy as np
 import pytest
 
 from tests.drydep import dry_synthetic as syn
-from tests.drydep.test_drydep_particle_hand_hours import SITES, _extreme_met
+from tests.drydep.test_drydep_particle_hand_hours import COARSE_10UM, SITES, _extreme_met
 from workbench.drydep import DryOptions, particle_fractions, velocities
 from workbench.drydep import particle_limit as limit
+from workbench.drydep.options import LogNormalMode, ParticleSpec, default_particle_modes
 from workbench.drydep.particles_numpy import ZhangSurface
 from workbench.errors import ModelDefectError, WorkbenchError
 
@@ -85,10 +86,14 @@ def test_the_demo_passes_the_check(demo, rule):
     assert all(np.isfinite(out[f"vd_{sp}"].values).any() for sp in DryOptions().particles)
 
 
+@pytest.mark.parametrize("coarse_10um", [False, True])
 @pytest.mark.parametrize("rule", RULES)
-def test_the_extreme_hours_pass_the_check(rule):
+def test_the_extreme_hours_pass_the_check(rule, coarse_10um):
+    modes = dict(default_particle_modes())
+    if coarse_10um:   # pNa all in the 10 um sea-salt mode of the hand-worked hours
+        modes["pNa"] = ParticleSpec(modes["pNa"].fine, LogNormalMode(*COARSE_10UM), 0.0)
     out = velocities(_extreme_met(), syn.make_surfaces(SITES),
-                     DryOptions(gases=(), particle_settling=rule))
+                     DryOptions(gases=(), particle_settling=rule, particle_modes=modes))
     assert float(out["friction_velocity"].max()) >= 2.0 and float(out["ra"].max()) == 1000.0
 
 
@@ -130,3 +135,39 @@ def test_a_planted_defect_on_dask_backed_met(monkeypatch):
     met = _extreme_met().chunk({"time": 4})
     with pytest.raises(ModelDefectError, match="defect of the model code"):
         velocities(met, syn.make_surfaces(SITES), DryOptions(gases=())).compute()
+
+
+def test_with_settling_is_the_same_on_numpy_blocks_and_dask():
+    # the settling returned with the Vd: sum_i w_i v_g of the public settling_velocity
+    # at the grown nodes (one node here: a single size, weight 1), the same in one
+    # block, in cache-sized blocks and chunk by chunk on dask
+    from workbench.drydep import particles as p
+    from workbench.drydep.zhang_tables import lognormal_nodes
+    rng = np.random.default_rng(12)
+    n_s, n_t = 3, 12000                       # 3 x 2 x 12000 > one block of 32768
+    rh = rng.uniform(0.3, 0.99, (n_s, 1, n_t))
+    us = rng.uniform(0.05, 1.5, (n_s, 2, n_t))
+    ra = rng.uniform(5.0, 500.0, (n_s, 2, n_t))
+    t = rng.uniform(260.0, 305.0, (n_s, 1, n_t))
+    pr = np.full((n_s, 1, n_t), 1.0e5)
+    mode = default_particle_modes()["pNa"].coarse
+    land = np.array(["grass", "conifer_forest"], dtype=object)[None, :, None]
+    args = (rh, us, ra, t, pr, land, 2.0, 0.0, 6)
+    (vd, vs), = p.mass_weighted_velocities((mode,), *args, with_settling=True)
+    assert vs.shape == (n_s, 1, n_t)
+    assert np.array_equal(vd, p.mass_weighted_velocities((mode,), *args)[0])
+    d, w = lognormal_nodes(mode.mmd, mode.gsd, 6)
+    hand = 0.0
+    for di, wi in zip(d, w):
+        dw = p.wet_diameter(di, rh, mode.growth)
+        hand = hand + wi * p.settling_velocity(dw, p.wet_density(di, dw, mode.density), t, pr)
+    np.testing.assert_allclose(vs, hand, rtol=1e-12)
+    small = tuple(a[:1, :, :50] if isinstance(a, np.ndarray) else a for a in args)
+    (vd1, vs1), = p.mass_weighted_velocities((mode,), *small, with_settling=True)
+    np.testing.assert_array_equal(vs1, vs[:1, :, :50])     # one block: the same numbers
+    dsa = pytest.importorskip("dask.array")
+    lazy = tuple(dsa.from_array(a, chunks=(1, -1, 4000))
+                 if isinstance(a, np.ndarray) and a.dtype == float else a for a in args)
+    (lvd, lvs), = p.mass_weighted_velocities((mode,), *lazy, with_settling=True)
+    np.testing.assert_array_equal(lvd.compute(), vd)
+    np.testing.assert_array_equal(lvs.compute(), np.broadcast_to(vs, vd.shape))
