@@ -20,7 +20,9 @@ function does them itself.  Steps:
 4. u* over each receptor through the blending height, its floor, its heat flux and
    Obukhov length; Ra at the sampler (or reference) height, with its cap;
 5. seasonal category and surface wetness;
-6. Rb, Rc (and its paths) and Vd of each gas; mass-weighted Vd of each particle.
+6. Rb, Rc (and its paths) and Vd of each gas; mass-weighted Vd of each particle,
+   checked against the aerodynamic limit v_s <= Vd <= v_s + 1/Ra
+   (:mod:`workbench.drydep.particle_limit`; a ModelDefectError otherwise).
 """
 from __future__ import annotations
 
