@@ -68,6 +68,13 @@ class InputError(WorkbenchError, ValueError):
         return text
 
 
+class ModelDefectError(WorkbenchError, RuntimeError):
+    """A result that the model's own equations rule out: a defect of the code, not of
+    the input (e.g. a particle Vd above the aerodynamic limit,
+    :func:`workbench.drydep.particle_limit.check_aerodynamic_limit`).  The message
+    locates it and asks for a report."""
+
+
 class ScenarioError(InputError):
     """A problem in a scenario file (unknown key, wrong type, missing path)."""
 

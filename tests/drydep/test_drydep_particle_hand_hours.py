@@ -494,8 +494,9 @@ COARSE_10UM = (10.0e-6, 2.0, 2165.0, "sea_salt")
 def test_vd_never_above_the_aerodynamic_limit_on_extreme_hours():
     """Vd <= 1/Ra + v_s (v_s the mass-weighted settling, by hand) and Vd >= v_s on the
     extreme hours, every receptor and species, with the default modes and with a 10 um
-    coarse sea-salt mode; the code asserts nothing at run time (the bound holds by the
-    form of Zhang et al. 2001, Eq. 1, since R_s > 0): this checks it."""
+    coarse sea-salt mode (the bound holds by the form of Zhang et al. 2001, Eq. 1,
+    since R_s > 0): this checks it with v_s by hand; the engine checks it at run time
+    with its own v_s (tests/drydep/test_drydep_particle_limit.py)."""
     surf = syn.make_surfaces(SITES)
     met = _extreme_met()
     modes = dict(default_particle_modes())

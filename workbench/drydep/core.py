@@ -20,7 +20,9 @@ function does them itself.  Steps:
 4. u* over each receptor through the blending height, its floor, its heat flux and
    Obukhov length; Ra at the sampler (or reference) height, with its cap;
 5. seasonal category and surface wetness;
-6. Rb, Rc (and its paths) and Vd of each gas; mass-weighted Vd of each particle.
+6. Rb, Rc (and its paths) and Vd of each gas; mass-weighted Vd of each particle,
+   checked against the aerodynamic limit v_s <= Vd <= v_s + 1/Ra
+   (:mod:`workbench.drydep.particle_limit`; a ModelDefectError otherwise).
 """
 from __future__ import annotations
 
@@ -40,6 +42,7 @@ from . import gas as _gas
 from . import micromet as _micromet
 from . import nh3_bidirectional as _nh3
 from . import particle_fractions as _fractions
+from . import particle_limit as _limit
 from . import particles as _particles
 from . import receptors as _receptors
 from . import seasons as _seasons
@@ -406,23 +409,31 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         modes = list(dict.fromkeys(mode for pp in parts.values() for mode, _ in pp[0]))
         # read the cached modes before storing new ones: storing may evict them
         found = {mode: _mode_lookup(cache, opt, mode) for mode in modes}
-        held = {mode: f[1]["vd"] for mode, f in found.items() if f[1] is not _graph.MISSING}
+        held = {mode: (f[1]["vd"], f[1]["vs"]) for mode, f in found.items()
+                if f[1] is not _graph.MISSING}
         todo = [mode for mode in modes if mode not in held]
         if todo:
             view = found[todo[0]][2]          # the step's guarded view of the options
             new = dict(zip(todo, _particles.mass_weighted_velocities(
                 todo, rh, us_r, ra, temp, pres, land, cat, wet, view.size_nodes,
-                settling=view.particle_settling)))
+                settling=view.particle_settling, with_settling=True)))
             for mode in todo:
                 if cache is not None:
-                    cache.store("particle_mode_vd", found[mode][0], {"vd": new[mode]})
+                    cache.store("particle_mode_vd", found[mode][0],
+                                {"vd": new[mode][0], "vs": new[mode][1]})
                 held[mode] = new[mode]
         by_mode = held
         for sp in opt.particles:
             weights, coarse, source = parts[sp]
-            total = 0.0
+            total = settle = 0.0
             for mode, w in weights:
-                total = total + _fractions.broadcast_weight(w) * by_mode[mode]
+                w = _fractions.broadcast_weight(w)
+                total = total + w * by_mode[mode][0]
+                settle = settle + w * by_mode[mode][1]
+            # Zhang et al. 2001, Eq. 1 with Rs > 0: v_s <= Vd <= v_s + 1/Ra, or a defect
+            _limit.check_aerodynamic_limit(
+                np.broadcast_to(total, shape3), settle, ra, sp, block["site"].values,
+                receptors, block["time"].values)
             if keep(f"vd_{sp}"):
                 out[f"vd_{sp}"] = srt(total, "m s-1", f"mass-weighted dry deposition velocity of {sp} "
                                       "(Zhang et al. 2001)", **_blocks.particle_attrs(

@@ -422,7 +422,7 @@ def _through_zhang(compute, args, land_use, receptor_dim, sizes=(), n_modes=None
 
 def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, pressure,
                              land_use, seasonal_category, wet=0.0, nodes=12,
-                             receptor_dim="receptor", settling="stokes"):
+                             receptor_dim="receptor", settling="stokes", with_settling=False):
     """Mass-weighted Vd of several log-normal modes over the same surfaces [m s-1].
 
     Parameters
@@ -440,11 +440,16 @@ def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, p
     settling : str
         ``"stokes"`` (Zhang et al. 2001, Eq. 2) or ``"clift_gauvin"`` (Clift and Gauvin 1970;
         :mod:`workbench.drydep.settling`): v_g in the settling term and in St.
+    with_settling : bool
+        Also return each mode's mass-weighted settling velocity.
 
     Returns
     -------
     vd : list of array_like
-        Mass-weighted Vd of each mode, in the order of `modes`. [m s-1]
+        Mass-weighted Vd of each mode, in the order of `modes`. [m s-1]  With
+        `with_settling`, a list of pairs ``(vd, vs)``: vs = sum_i w_i v_g(d_i), the
+        settling part of vd, with the shape of the air (no receptor axis) for numpy
+        input, broadcast to vd's for xarray and dask input. [m s-1]
 
     Notes
     -----
@@ -463,15 +468,22 @@ def mass_weighted_velocities(modes, relative_humidity, ustar, ra, temperature, p
     """
     args = (relative_humidity, ustar, ra, temperature, pressure, seasonal_category, wet)
     if not _is_numpy(*args):
-        stacked = _through_zhang(
-            lambda arrays, land, _: np.stack(
-                _numpy_velocities(modes, arrays, land, nodes, settling), -1),
-            args, land_use, receptor_dim, (), n_modes=len(modes))
-        return [stacked[..., i] for i in range(len(modes))]
-    return _numpy_velocities(modes, args, land_use, nodes, settling)
+        def stack(arrays, land, _):
+            got = _numpy_velocities(modes, arrays, land, nodes, settling, with_settling)
+            if with_settling:  # vd of every mode, then vs of every mode
+                got = [vd for vd, _ in got] + [np.broadcast_to(vs, got[0][0].shape)
+                                               for _, vs in got]
+            return np.stack(got, -1)
+        n = len(modes)
+        stacked = _through_zhang(stack, args, land_use, receptor_dim, (),
+                                 n_modes=2 * n if with_settling else n)
+        if with_settling:
+            return [(stacked[..., i], stacked[..., n + i]) for i in range(n)]
+        return [stacked[..., i] for i in range(n)]
+    return _numpy_velocities(modes, args, land_use, nodes, settling, with_settling)
 
 
-def _numpy_velocities(modes, arrays, land_use, nodes, settling="stokes"):
+def _numpy_velocities(modes, arrays, land_use, nodes, settling="stokes", with_settling=False):
     """:func:`mass_weighted_velocities` of numpy `arrays` (the order of its `args`) [m s-1]."""
     arrays = [np.asarray(a, dtype=float) for a in arrays]
     land = land_use if isinstance(land_use, str) else np.asarray(land_use, dtype=object)
@@ -482,18 +494,25 @@ def _numpy_velocities(modes, arrays, land_use, nodes, settling="stokes"):
     blocks = list(block_slices(shape, block_size(n_threads, BLOCK_ELEMENTS)))
     if len(blocks) == 1:
         surface = ZhangSurface(*arrays[:5], land, *arrays[5:], settling=settling)
-        return [surface.mass_weighted(mode, nodes) for mode in modes]
+        return [surface.mass_weighted(mode, nodes, with_settling) for mode in modes]
     arrays = [aligned(a, len(shape)) for a in arrays]
     land = land if isinstance(land, str) else aligned(land, len(shape))
     out = [np.empty(shape) for _ in modes]
+    # the settling has the shape of the air (rh, T, p): no receptor axis
+    air = np.broadcast_shapes(*(arrays[i].shape for i in (0, 3, 4)))
+    settle = [np.empty(air) for _ in modes] if with_settling else None
 
     def task(i):  # element-wise: the same numbers as one call on everything
         block = blocks[i]
         part = [block_of(a, block) for a in arrays]
         surface = ZhangSurface(*part[:5], land if isinstance(land, str)
                                else block_of(land, block), *part[5:], settling=settling)
-        for vd, mode in zip(out, modes):
-            vd[block] = surface.mass_weighted(mode, nodes)
+        for j, mode in enumerate(modes):
+            if with_settling:
+                out[j][block], block_of(settle[j], block)[...] = surface.mass_weighted(
+                    mode, nodes, True)
+            else:
+                out[j][block] = surface.mass_weighted(mode, nodes)
     run_each(task, len(blocks), n_threads)  # the engine's threads (workbench.threads)
-    return out
+    return list(zip(out, settle)) if with_settling else out
 

@@ -233,8 +233,12 @@ class ZhangSurface:
         x /= e                                          # R_s
         return x
 
-    def _weighted_sum(self, particles, weights):
-        """sum_i w_i (v_g + 1/(R_a + R_s)) over the (v_g, ln Sc, d^2) of `particles` [m s-1]."""
+    def _weighted_sum(self, particles, weights, with_settling=False):
+        """sum_i w_i (v_g + 1/(R_a + R_s)) over the (v_g, ln Sc, d^2) of `particles` [m s-1].
+
+        With `with_settling`, the pair (that sum, sum_i w_i v_g) [m s-1]: the second is
+        the mass-weighted settling velocity, the sum the first one adds, shape of the air.
+        """
         total = vg_sum = e = None
         with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
             for (vg, log_sc, d2), w in zip(particles, weights):
@@ -253,7 +257,10 @@ class ZhangSurface:
                 np.multiply(vg, w, out=sqrt_vg)
                 vg_sum += sqrt_vg                               # sum of w v_g
             total += vg_sum
-        return total[()] if total.ndim == 0 else total
+        total = total[()] if total.ndim == 0 else total
+        if with_settling:
+            return total, (vg_sum[()] if vg_sum.ndim == 0 else vg_sum)
+        return total
 
     def velocity(self, dry_diameter, dry_density, growth):
         """V_d = v_g + 1/(R_a + R_s) of one dry diameter (Zhang et al. 2001, Eq. 1) [m s-1].
@@ -304,18 +311,23 @@ class ZhangSurface:
         rs += self.unknown
         return rs[()] if rs.ndim == 0 else rs
 
-    def mass_weighted(self, mode, nodes):
+    def mass_weighted(self, mode, nodes, with_settling=False):
         """Mass-weighted V_d of one mode [m s-1] (see :func:`mass_weighted_velocity`).
 
         Parameters
         ----------
         mode : workbench.drydep.options.LogNormalMode
         nodes : int
+        with_settling : bool
+            Return the mass-weighted settling velocity too.
 
         Returns
         -------
         vd : numpy.ndarray or numpy.float64
             Shape of the broadcast inputs. [m s-1]
+        vs : numpy.ndarray or numpy.float64
+            With `with_settling` only, returned as ``(vd, vs)``: sum_i w_i v_g(d_i),
+            the settling part of `vd`, shape of the air (no receptor axis). [m s-1]
 
         Notes
         -----
@@ -327,4 +339,4 @@ class ZhangSurface:
         """
         diams, weights = lognormal_nodes(mode.mmd, mode.gsd, nodes)
         return self._weighted_sum((self.node(d, mode.density, mode.growth) for d in diams),
-                                  weights)
+                                  weights, with_settling)
