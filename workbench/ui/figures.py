@@ -9,9 +9,9 @@ chemistry QA in :mod:`workbench.ui.figures_wet`.
 Where the parts are: one site's budget (:func:`budget_bars`, :func:`monthly_fluxes`)
 and what every figure shares (:data:`ELEMENTS`, :data:`HEIGHT`, the legend and its
 note, :func:`from_spec`, :func:`subplot_layout`, :func:`wrap_text`) in
-:mod:`workbench.ui.figures_budget`; a sensitivity study's curves
+:mod:`workbench.ui.figures_budget`; the curves of a total against one option
 (:func:`sensitivity_curves`, :func:`baseline_line`, :func:`status_note`) in
-:mod:`workbench.ui.figures_sensitivity`; the network's totals and ranking
+:mod:`workbench.ui.figures_curves`; the network's totals and ranking
 (:func:`network_totals`, :func:`year_ticks`, :func:`network_ranking_bars`,
 :func:`ranking_size`) in :mod:`workbench.ui.figures_network`.  This module re-exports
 them all, so that ``workbench.ui.figures.<name>`` keeps working.
@@ -25,6 +25,10 @@ from .figures_budget import (ELEMENTS, ELEMENT_NAMES, HEIGHT,  # noqa: F401
                              budget_bars, budget_bars_spec, from_spec, legend_height,
                              legend_lines, legend_note, monthly_fluxes,
                              monthly_fluxes_spec, subplot_layout, wrap_text)
+# the curves of a total against one option (defined here before)
+from .figures_curves import (AXIS_CHARS, BASELINE_WIDTH, TITLE_CHARS,  # noqa: F401
+                             WHOLE, baseline_line, sensitivity_curves, status_note,
+                             title_room)
 # the network's totals and ranking (defined here before)
 from .figures_network import (EVERY_YEAR_MAX, MARKER_NOTE, NOTEBOOK_PX,  # noqa: F401
                               OPEN_NAME, PLOTLY_MARGIN_PX, RANKING_COLOURS, RANK_AXIS_PX,
@@ -33,7 +37,3 @@ from .figures_network import (EVERY_YEAR_MAX, MARKER_NOTE, NOTEBOOK_PX,  # noqa:
                               YEAR_ANGLE, YEAR_LABEL_PX, YEAR_STEPS, _rank_label,
                               network_ranking_bars, network_totals, ranking_size,
                               totals_plot_px, year_ticks)
-# a sensitivity study's curves (defined here before)
-from .figures_sensitivity import (AXIS_CHARS, BASELINE_WIDTH, TITLE_CHARS,  # noqa: F401
-                                  WHOLE, baseline_line, sensitivity_curves, status_note,
-                                  title_room)

@@ -1,134 +1,139 @@
-"""Figures of a sensitivity study: the curves of a total against one option, with the
-baseline marked and a note of the statuses of the values drawn.
+"""Figures of the global sensitivity analysis: Sobol bars beside a tornado.
 
-Moved from :mod:`workbench.ui.figures` (which re-exports every name here).
+Pure functions: tables of :mod:`workbench.analysis.sensitivity` in, a plotly spec (and
+a Figure built from it) out.
 """
 from __future__ import annotations
 
-import numpy as np
+import json
+import re
+
 import pandas as pd
-import plotly.graph_objects as go
-from plotly.subplots import make_subplots
 
-from .figures_budget import ELEMENTS, HEIGHT, PANEL_GAP, wrap_text
-from .palette import OKABE_ITO, PATHWAY_COLOURS, TEMPLATE
-from .summaries import axis_text
+from .figures import from_spec, subplot_layout
+from .palette import OKABE_ITO, TEMPLATE
 
-
-#: Width of a baseline line [px]: the template's shape default is 0 (invisible).
-BASELINE_WIDTH = 1.5
+#: Thickness of each Sobol bar [fraction of a factor's row]: first order and total side
+#: by side.
+SOBOL_BAR = 0.4
 
 
-def baseline_line() -> dict:
-    """Line of a baseline marker (dotted grey, with an explicit width)."""
-    return {"color": OKABE_ITO["grey"], "dash": "dot", "width": BASELINE_WIDTH}
+def _pick(frame, site, receptor, period, element, quantity):
+    return frame[(frame["site"] == site) & (frame["receptor"] == receptor)
+                 & (frame["period"].astype(str) == str(period)) & (frame["element"] == element)
+                 & (frame["quantity"] == quantity)]
 
 
-#: Most characters on one line of a panel's axis title and of a figure's title (a
-#: 660 px figure of two panels): longer text wraps at a space (it ran into the other
-#: panel's title, or past the figure's edge).
-AXIS_CHARS, TITLE_CHARS = 30, 70
+def _labels(frames) -> dict:
+    """factor -> its axis label: ``vd_NO2 (no data)`` where the rows' ``note`` says the
+    factor reaches only components without data at the site (any factor tied to a
+    species: ``vd_``, ``fine_fraction_``, ``fine_mmd_``, ``rc_scale_``, ``nh3_gamma_``), ``(no effect)`` where it
+    says the factor has nothing to act on (no bulk-collector samples).  Before, such a
+    factor's empty bar looked like a measured nil effect; the note was in the CSV only."""
+    out = {}
+    for frame in frames:
+        if "note" not in frame:
+            continue
+        for factor, note in zip(frame["factor"], frame["note"].fillna("").astype(str)):
+            if "for want of data" in note:
+                out[factor] = f"{factor} (no data)"
+            elif note.startswith("no effect"):
+                out.setdefault(factor, f"{factor} (no effect)")
+    return out
 
 
-def title_room(title: str) -> int:
-    """Top margin [px] for a title of one or more ``<br>`` lines above subplot titles
-    (plotly centres the title in the margin: its default 100 px holds two lines, and a
-    third ran into "sulfur")."""
-    return 100 + 50 * max(0, str(title).count("<br>") - 1)
+def _lacks(frames) -> str:
+    """The components the shown total lacks, from the rows' notes ("" when complete)."""
+    for frame in frames:
+        if "note" not in frame:
+            continue
+        for note in frame["note"].fillna("").astype(str):
+            m = re.search(r"the total lacks ([^:]+): ", note)
+            if m:
+                return m.group(1).strip()
+    return ""
 
 
-#: Statuses of a total that may be ranked and read as whole.
-WHOLE = ("complete", "filled")
-
-
-def status_note(statuses, missing=()) -> str:
-    """`` (partial)``, `` (flagged, partial)`` ...: the statuses among `statuses` that are
-    not complete or filled, for a legend entry or a column heading; ``""`` when none.
-
-    `missing`: the components without data of the same totals (space-separated names
-    each); they are named (`` (flagged, no NO2)``), so that a total both flagged and
-    lacking a component (flagged wins in the status of a sum) does not read as merely
-    flagged.
-
-    >>> status_note(["complete", "flagged"], ["", "NO2"])
-    ' (flagged, no NO2)'
-    """
-    bad = sorted({str(x) for x in statuses} - set(WHOLE))
-    names = list(dict.fromkeys(n for m in missing if isinstance(m, str) for n in m.split()))
-    if names and {str(x) for x in statuses} - {"missing"}:   # a total with a number
-        bad.append("no " + ", ".join(names))
-    return f" ({', '.join(bad)})" if bad else ""
-
-
-def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr", template=TEMPLATE,
-                       model_baseline=None):
-    """Response of each total to one assumption, the baseline marked.
+def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor, period,
+                     element="N", quantity="total", resolution="year") -> dict:
+    """Plotly spec: first-order and total Sobol indices (with their 95 % bootstrap
+    intervals) by factor, and the one-at-a-time low/high outputs around the base.  A
+    factor whose rows' note says it had no data to act on is labelled so (``vd_NO2 (no
+    data)``), and a total lacking components says so in the title (:func:`_labels`,
+    :func:`_lacks`).
 
     Parameters
     ----------
-    table : pandas.DataFrame
-        ``value`` (the assumption's setting), ``total`` (``S_total`` ...),
-        ``rate`` [unit], ``status`` (see :func:`workbench.ui.session.Session.sweep`).
-        A point whose total is not complete or filled has an open marker, and its
-        curve's legend entry names the status (``N total (partial)``).
-    label : str
-        The assumption's name with its unit (x axis title).
-    baseline : object
-        The scenario's setting (marked by a vertical line and open markers).
-    model_baseline : dict, optional
-        ``{"S": rate, "N": rate}`` [unit]: the totals of the run whose setting is left to
-        the model or the catalogue (no `baseline` value on the x axis), drawn as a
-        dotted horizontal line in each panel and named in the legend ("baseline
-        (model)"), not by a label on the line: a label there sat on the total's curve,
-        which runs along that line wherever the total does not respond.
-
-    Returns
-    -------
-    plotly.graph_objects.Figure
-        Six traces (S and N: wet, dry, total) and two of the baseline points; with
-        `model_baseline`, one more trace: the legend entry of its lines.
+    sobol : pandas.DataFrame
+        Output of :func:`workbench.analysis.sensitivity.sobol`.
+    tornado : pandas.DataFrame
+        Output of :func:`workbench.analysis.sensitivity.tornado`.
+    site, receptor, period, element, quantity : str
+        The output shown (``element`` S, N or S+N; ``quantity`` wet, dry, total or
+        potential_acidity).
+    resolution : str
+        The reporting resolution of the periods, for the tornado's unit when its rows
+        do not name it (their ``unit`` column, :func:`~workbench.analysis.sensitivity.
+        output_unit`, is used when present).
     """
-    fig = make_subplots(rows=1, cols=2, subplot_titles=("sulfur", "nitrogen"),
-                        horizontal_spacing=PANEL_GAP)
-    cat = not all(isinstance(v, (int, float, np.number)) and not isinstance(v, bool)
-                  for v in table["value"])
-    xs = [str(v) for v in table["value"]] if cat else table["value"].tolist()
-    t = table.assign(x=xs)
-    base_x = str(baseline) if cat else baseline
-    for col, el in enumerate(ELEMENTS, start=1):
-        for pw in ("wet", "dry", "total"):
-            g = t[t["total"] == f"{el}_{pw}"]
-            fig.add_trace(go.Scatter(
-                x=g["x"], y=[v if np.isfinite(v) else None for v in g["rate"]],
-                mode="lines+markers",
-                name=f"{el} {pw}{status_note(g['status'], g.get('missing', ()))}",
-                legendgroup=pw,
-                marker=dict(symbol=["circle" if x in WHOLE else "circle-open"
-                                    for x in g["status"]]),
-                line=dict(color=PATHWAY_COLOURS[pw], width=3 if pw == "total" else 1.5),
-                customdata=g["status"],
-                hovertemplate=(f"{el} {pw} at %{{x}}: %{{y:.3g}} {axis_text(unit, element=el)}"
-                               "<br>status %{customdata}<extra></extra>")), row=1, col=col)
-        g = t[(t["total"] == f"{el}_total") & (t["x"] == base_x)]
-        fig.add_trace(go.Scatter(
-            x=g["x"], y=g["rate"], mode="markers", name="baseline", legendgroup="baseline",
-            showlegend=col == 1, marker=dict(symbol="star", size=14, color=OKABE_ITO["black"]),
-            hovertemplate="baseline %{x}: %{y:.3g}<extra></extra>"), row=1, col=col)
-        fig.update_yaxes(title_text=axis_text(unit, element=el), row=1, col=col, rangemode="tozero")
-        fig.update_xaxes(title_text=wrap_text(label, AXIS_CHARS), row=1, col=col)
-    if not cat and baseline is not None:
-        fig.add_vline(x=baseline, line=baseline_line())
-    drawn = False
-    for col, el in enumerate(ELEMENTS, start=1):
-        v = (model_baseline or {}).get(el)
-        if v is not None and np.isfinite(v):
-            fig.add_hline(y=v, line=baseline_line(), row=1, col=col)
-            drawn = True
-    if drawn:                   # the lines' name: a legend entry, clear of every curve
-        fig.add_trace(go.Scatter(x=[None], y=[None], mode="lines", line=baseline_line(),
-                                 name="baseline (model)", legendgroup="baseline",
-                                 hoverinfo="skip"), row=1, col=1)
-    title = wrap_text(f"Sensitivity of the totals to {label}", TITLE_CHARS)
-    fig.update_layout(title=title, template=template, height=HEIGHT,
-                      margin=dict(t=title_room(title)))
-    return fig
+    from ..analysis.sensitivity_options import output_unit
+    layout_json, axes = subplot_layout(1, 2, horizontal_spacing=0.18,
+                                       subplot_titles=("Sobol indices [1]", "One at a time"))
+    layout = json.loads(layout_json)
+    s = _pick(sobol, site, receptor, period, element, quantity).sort_values("ST")
+    t = _pick(tornado, site, receptor, period, element, quantity)
+    label = _labels((s, t))
+    s = s.assign(factor=s["factor"].map(lambda f: label.get(f, f)))
+    t = t.assign(factor=t["factor"].map(lambda f: label.get(f, f)))
+    lacks = _lacks((s, t))
+    traces = []
+    (x1, y1), (x2, y2) = axes
+    # side by side in each factor's row (the panel overlays bars for the tornado: the
+    # total bar, drawn second, hid the first-order one under it)
+    for col, name, colour, offset in (("S1", "first order", OKABE_ITO["blue"], 0.0),
+                                      ("ST", "total", OKABE_ITO["orange"], -SOBOL_BAR)):
+        traces.append({"type": "bar", "orientation": "h", "name": name,
+                       "width": SOBOL_BAR, "offset": offset,
+                       "x": s[col].tolist(), "y": s["factor"].tolist(),
+                       "error_x": {"type": "data", "array": s[f"{col}_conf"].tolist()},
+                       "marker": {"color": colour}, "xaxis": x1.replace("axis", ""),
+                       "yaxis": y1.replace("axis", "")})
+    # the unit the numbers are in: "kg S ha-1 yr-1" for years (it said "kg S/ha per
+    # period", the period being a year)
+    unit = (str(t["unit"].iloc[0]) if len(t) and "unit" in t
+            else output_unit(element, resolution))
+    if len(t):
+        base = float(t["output_base"].iloc[0])
+        t = t.assign(_span=(t["output_high"] - t["output_low"]).abs()).sort_values("_span")
+        for col, end, colour in (("output_low", "low", OKABE_ITO["sky_blue"]),
+                                 ("output_high", "high", OKABE_ITO["vermillion"])):
+            traces.append({"type": "bar", "orientation": "h", "name": f"factor {end}",
+                           "base": base, "x": (t[col] - base).tolist(),
+                           "y": t["factor"].tolist(), "customdata": t[end].tolist(),
+                           "hovertemplate": f"%{{y}} {end} = %{{customdata}}: "
+                                            f"%{{x:+.3g}} {unit}<extra></extra>",
+                           "marker": {"color": colour}, "xaxis": x2.replace("axis", ""),
+                           "yaxis": y2.replace("axis", "")})
+        # the baseline as the tables write it ("1,890", not "1.89e+03")
+        shown = f"{base:,.0f}" if abs(base) >= 1000 else f"{base:.3g}"
+        layout[x2]["title"] = {"text": f"{unit} (base {shown})"}
+    layout.update({"barmode": "overlay", "height": 120 + 28 * max(len(s), len(t), 4),
+                   "title": {"text": f"Sensitivity of {element} {quantity.replace('_', ' ')} · "
+                                     f"{site} · "
+                                     f"{receptor} · {period}"
+                                     + (f" (lacks {lacks}: indices of its measured part)"
+                                        if lacks else "")}})
+    layout[x1]["range"] = [0, 1.05]
+    # every axis named (the index axis had its panel's title only)
+    layout[x1]["title"] = {"text": "Sobol index [1]"}
+    layout[y1]["title"] = {"text": "factor"}
+    if len(t) == 0:                 # no tornado rows: still say what the axis would hold
+        layout[x2]["title"] = {"text": unit}
+    return {"data": traces, "layout": layout}
+
+
+def sensitivity_figure(sobol, tornado, site, receptor, period, element="N", quantity="total",
+                       template=TEMPLATE, resolution="year"):
+    """The Figure of :func:`sensitivity_spec`."""
+    return from_spec(sensitivity_spec(sobol, tornado, site, receptor, period, element,
+                                      quantity, resolution), template)
