@@ -17,7 +17,7 @@ PACKAGE = Path(__file__).resolve().parents[1] / "workbench"
 ALLOWED_MEMO = {
     ("graph.py", "_class_fields"): "the field names of an options class",
     ("drydep/zhang_tables.py", "_hermgauss"): "Gauss-Hermite nodes of an order (constants)",
-    ("ui/figures.py", "subplot_layout"): "plotly layout JSON of a subplot grid (constants)",
+    ("ui/figures_budget.py", "subplot_layout"): "plotly layout JSON of a subplot grid (constants)",
 }
 #: (file, function) -> why ``id()`` is used there (not as a cache key).
 ALLOWED_ID = {

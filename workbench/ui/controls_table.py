@@ -1,0 +1,91 @@
+"""Tables shown by the apps (HTML that scrolls past a height) and the caution box.
+
+Moved from :mod:`workbench.ui.controls` (which re-exports every name here).
+"""
+from __future__ import annotations
+
+import html
+
+import ipywidgets as widgets
+import numpy as np
+import pandas as pd
+
+from ..budget import OMISSIONS
+from ..report import CAUTION
+
+
+#: Largest height of a table before it scrolls [CSS].
+TABLE_HEIGHT = "320px"
+
+
+#: Headings of a table over their cells (left, like the cells) with room between columns.
+TABLE_CSS = ("<style>.wb-table th {text-align: left !important; padding-right: 1em;} "
+             ".wb-table td {padding-right: 1em;}</style>")
+
+
+def table_number(v: float) -> str:
+    """A number of a table as a reader takes it in: three significant digits, and whole
+    numbers with thousands separators from 1,000 up (``1,441``, never ``1.44e+03``)."""
+    if not np.isfinite(v):
+        return "–"
+    return f"{v:,.0f}" if abs(v) >= 1000 else f"{v:.3g}"
+
+
+#: Least width of a column of long sentences in a table [CSS] (:func:`table_html`'s
+#: ``wide``): about 30 characters a line at the tables' 85 % font.
+WIDE_COLUMN = "16em"
+
+
+def table_html(frame: pd.DataFrame, empty="none", wide=(), fill=False) -> str:
+    """A scrolling HTML table of a DataFrame (text escaped; headings over their columns,
+    left-aligned like the cells; numbers by :func:`table_number`).
+
+    Parameters
+    ----------
+    frame : DataFrame
+        The rows shown (all columns, without the index).
+    empty : str
+        Said in place of a table when there is no row.
+    wide : sequence of str
+        Columns of long sentences that get at least :data:`WIDE_COLUMN` of width: the
+        table then scrolls sideways in its box instead of squeezing them into a column
+        of a few words a line (a network trend of 180 characters in a 60 px column made
+        one row taller than the box, which showed a slice of it).
+    fill : bool
+        The box takes the width of the column it is in and nothing from the table: a
+        table wider than the column scrolls inside it.  Without it the table's least
+        width widens the HTML widget holding it past an app's column (beside an open
+        file browser the trend table of the network overview cut its own heading at the
+        right).  Only for a widget whose width the column sets (a VBox child).
+    """
+    if frame is None or frame.empty:
+        return f"<p><i>{html.escape(empty)}</i></p>"
+    classes = "wb-table"
+    css = TABLE_CSS
+    cols = [str(c) for c in frame.columns]
+    wide_at = [cols.index(str(c)) + 1 for c in wide if str(c) in cols]
+    if wide_at:
+        # a class of this table's own: the style element applies to the whole page
+        own = "wb-table-" + "-".join(map(str, wide_at))
+        classes += f" {own}"
+        css += ("<style>" + ", ".join(f".{own} td:nth-child({i})" for i in wide_at)
+                + f" {{min-width: {WIDE_COLUMN};}}</style>")
+    body = frame.to_html(index=False, border=0, escape=True, na_rep="–", justify="left",
+                         float_format=table_number, classes=classes)
+    # JupyterLab's stylesheet right-aligns a th: the headings stood off their cells
+    body = css + body
+    # width 0 with a least width of 100 %: no width of the table's own reaches the
+    # column (a percentage least width counts for nothing while the column is sized)
+    size = "width:0;min-width:100%;" if fill else ""
+    return (f"<div style='max-height:{TABLE_HEIGHT};max-width:100%;{size}overflow:auto;"
+            f"font-size:85%'>{body}</div>")
+
+
+def caution_box() -> widgets.HTML:
+    """The cautions of the README and the report, and what the budget leaves out."""
+    left_out = "".join(f"<li><b>{html.escape(a)}</b>: {html.escape(b)}</li>" for a, b in OMISSIONS)
+    return widgets.HTML(
+        "<div style='background:#fff6e0;border-left:4px solid #E69F00;padding:.4em .8em;"
+        f"font-size:90%'><b>Caution.</b> {html.escape(CAUTION)}"
+        f"<details><summary>What the budget leaves out</summary><ul>{left_out}</ul></details>"
+        "</div>")
