@@ -21,7 +21,7 @@ ALLOWED_MEMO = {
 }
 #: (file, function) -> why ``id()`` is used there (not as a cache key).
 ALLOWED_ID = {
-    ("drydep/core.py", "own"): "arrays handed to an output within one call (no copy twice)",
+    ("drydep/core_hourly.py", "own"): "arrays handed to an output within one call (no copy twice)",
 }
 MEMO_NAMES = {"lru_cache", "cache", "memoize"}
 #: (file, function) -> why a ``*key`` function returning values it reads from objects

@@ -6,6 +6,13 @@ with a non-zero exit code (2; 130 after Ctrl-C), never a traceback: the workbenc
 errors, OS errors while reading or writing (disk full, read-only folder, file-size
 limit) and interrupts.  A run folder is written whole or not at all
 (:mod:`workbench.runfolder`).
+
+Where the parts are: ``workbench check`` (:func:`cmd_check`, :func:`absent_site_lines`)
+in :mod:`workbench.cli_check`; what a run prints after it (:func:`status_lines`,
+:func:`run_span_notes`, :func:`site_status_lines`) in :mod:`workbench.cli_status`; the
+terminal (:class:`_LineEnd`, Ctrl-C) in :mod:`workbench.cli_terminal`; ``verify`` and
+``compare`` in :mod:`workbench.cli_runs`.  This module re-exports them, so that
+``workbench.cli.<name>`` keeps working.
 """
 from __future__ import annotations
 
@@ -16,6 +23,14 @@ from pathlib import Path
 
 from . import __version__
 from .errors import WorkbenchError
+# workbench check (defined here before)
+from .cli_check import (_check_grid_only, _inputs_text, _progress,  # noqa: F401
+                        absent_site_lines, cmd_check)
+# what a run prints after it (defined here before)
+from .cli_status import run_span_notes, site_status_lines, status_lines  # noqa: F401
+# the terminal: stderr's open line, Ctrl-C (defined here before)
+from .cli_terminal import (_LineEnd, _catch_ctrl_c, _end_line,  # noqa: F401
+                           _in_gc_callback, _on_ctrl_c)
 
 
 def demo_folder() -> Path:
@@ -42,147 +57,6 @@ BLOCK_SITE_YEARS = 20
 
 #: Reporting resolutions of ``workbench run --resolution`` (as ``[period] resolution``).
 RESOLUTIONS = ("year", "hydro_year", "season", "month")
-
-
-class _LineEnd:
-    """A text stream written through, knowing whether its last line is still open (text
-    written since the last newline).
-
-    ``main`` puts it in place of ``sys.stderr`` for a command, so that an error always
-    starts on a line of its own, in a terminal and piped: a progress bar shown by a
-    refresh before its ``delay`` has passed (tqdm) closes without its newline.
-    """
-
-    def __init__(self, stream):
-        self.stream = stream
-        self.open = False
-
-    def write(self, text):
-        if text:
-            self.open = not text.endswith("\n")
-        return self.stream.write(text)
-
-    def end_line(self):
-        """Write a newline if the last line is open."""
-        if self.open:
-            self.stream.write("\n")
-            self.open = False
-
-    def __getattr__(self, name):          # flush, fileno, isatty, encoding, ...
-        return getattr(self.stream, name)
-
-
-def _end_line():
-    """End an open line on stderr (see :class:`_LineEnd`)."""
-    if isinstance(sys.stderr, _LineEnd):
-        sys.stderr.end_line()
-
-
-def _progress(quiet):
-    if quiet:
-        return None
-    return lambda text: print(f"reading {text} ...", file=sys.stderr, flush=True)
-
-
-def cmd_check(args) -> int:
-    from .cli_runs import run_folder_hint
-    from .preflight import prepare
-    from .runcheck import RunRecordError
-    hint = run_folder_hint(args.scenario)
-    if hint:
-        raise RunRecordError(hint)
-    if _check_grid_only(args.scenario):
-        return 0
-    prep = prepare(args.scenario, progress=_progress(args.quiet))
-    print(f"scenario: {prep.scenario.path}")
-    print(_inputs_text(prep.study.inputs))
-    for line in absent_site_lines(prep.study.inputs):
-        print(line)
-    print()
-    print(prep.describe())
-    return 0
-
-
-def _check_grid_only(path) -> bool:
-    """``workbench check`` of a scenario with a ``[grid]`` section and no site catalogue:
-    open and check the three grid files (metadata, coordinates, times, the 2-D fields:
-    :func:`workbench.grid_io.open_grid`) and the reporting periods, and print what
-    ``workbench grid`` would compute; False for any other scenario.  It said "no site
-    catalogue" before, so a grid could not be checked before its run."""
-    from pathlib import Path as _Path
-    if not _Path(path).is_file():
-        return False                     # the site path says where it looked
-    from .scenario import load_scenario
-    sc = load_scenario(path)
-    if "sites" in sc.input_paths() or not sc.data.get("grid"):
-        return False
-    from .errors import ScenarioError
-    from .grid import make_periods, span_notes
-    from .grid_io import describe, open_grid
-    from .grid_output import grid_paths
-    paths = grid_paths(sc)
-    if len(paths) != 3:
-        raise ScenarioError("no [grid] section", file=sc.path, column="grid",
-                            expected="a [grid] section with met, air and land_use paths")
-    grid = open_grid(paths["met"], paths["air"], paths["land_use"])
-    p = sc.data["period"]
-    periods = make_periods(grid, p["resolution"], p["start"], p["end"])
-    print(f"scenario: {sc.path}")
-    print(describe(grid))
-    for note in grid.notes:
-        print(f"note: {note}")
-    print(f"periods: {len(periods)} {p['resolution']} period{'s' if len(periods) != 1 else ''}")
-    for note in span_notes(grid, p["start"], p["end"]):     # as `workbench check` of sites
-        print("note: " + note.removeprefix("period: "))
-    print("the grid files were read and checked (metadata, coordinates, times, land-use "
-          "classes; the hourly values are checked block by block as the run reads them): "
-          "run it with `workbench grid SCENARIO --out DIR`")
-    return True
-
-
-def absent_site_lines(inputs) -> list[str]:
-    """Sites of sites.toml that a data file does not hold, for ``workbench check``: one
-    line per set of absent inputs, naming the sites (their budgets will miss what those
-    files give).  Empty when every site is in every file that was given."""
-    import numpy as np
-    have = {}
-    for role, ds in (("precipitation samples", inputs.precipitation),
-                     ("air concentrations", inputs.air), ("met hours", inputs.met)):
-        if ds is not None and "site" in ds.variables:
-            have[role] = set(np.unique(ds["site"].values.astype(str)))
-    if not have:
-        return []
-    by = {}
-    for sid in inputs.catalogue.ids:
-        gone = tuple(r for r, ids in have.items() if str(sid) not in ids)
-        if gone:
-            by.setdefault(gone, []).append(str(sid))
-    lines = []
-    for gone, sites in by.items():
-        every = len(gone) == len(have)
-        what = "no record at all (in no data file)" if every else "no " + " and no ".join(gone)
-        lines.append(f"note: {len(sites)} site{'s' if len(sites) > 1 else ''} of sites.toml "
-                     f"with {what}: {', '.join(sites)}; "
-                     + ("its budgets will be missing" if every and len(sites) == 1 else
-                        "their budgets will be missing" if every else
-                        "the parts of the budget those files give will be missing"))
-    return lines
-
-
-def _inputs_text(inputs) -> str:
-    """``inputs.describe()``; for a network of more than
-    :data:`workbench.report_network.NETWORK_SITES` sites with its closing notes grouped
-    by site (:func:`workbench.report_network.grouped_free_notes`: "met v01: complete
-    hourly record ... — the same at 21 more sites: ...")."""
-    from .report_network import NETWORK_SITES, grouped_free_notes
-    text = inputs.describe()
-    notes = list(inputs.ledger.notes)
-    ids = list(inputs.catalogue.ids)
-    block = "\nnotes:\n" + "\n".join(f"  {n}" for n in notes)
-    if len(ids) <= NETWORK_SITES or not notes or not text.endswith(block):
-        return text
-    return text[:-len(block)] + "\nnotes:\n" + "\n".join(
-        f"  {n}" for n in grouped_free_notes(notes, ids))
 
 
 def run_scenario(scenario_path, out, overwrite=False, quiet=False, resolution=None,
@@ -316,92 +190,6 @@ def cmd_run(args) -> int:
     for line in site_status_lines(result.table):
         print(line)
     return 0
-
-
-def status_lines(table, inputs) -> list[str]:
-    """What a run's budgets hold, for the console: per element the status counts of the
-    total budget of each site, receptor and period; with the coverage warnings when
-    every one is missing (:func:`workbench.preflight.coverage_notes`)."""
-    from .preflight import coverage_notes
-    t = table[(table["period"].astype(str) != "span") & (table["species"] == "all")
-              & (table["pathway"] == "total")]
-    if t.empty:
-        return []
-    parts = []
-    els = sorted(t["element"].astype(str).unique(), key=lambda e: ("S", "N").index(e)
-                 if e in ("S", "N") else 2)
-    for el in els:
-        g = t[t["element"].astype(str) == el]
-        counts = g["status"].astype(str).value_counts()
-        order = ["complete", "filled", "partial", "flagged", "missing"]
-        keys = [k for k in order if k in counts] + [k for k in counts.index if k not in order]
-        parts.append(f"{el}: " + ", ".join(f"{int(counts[k])} {k}" for k in keys))
-    lines = ["budgets per site, receptor and period (total, summary.csv): " + "; ".join(parts)]
-    if (t["status"].astype(str) == "missing").all():
-        start = t["period_start"].min() if "period_start" in t else None
-        end = t["period_end"].max() if "period_end" in t else None
-        lines.append("warning: every budget is missing")
-        if start is not None and end is not None:
-            lines.extend("  " + c for c in coverage_notes(inputs, start, end))
-    return lines
-
-
-def run_span_notes(scenario, table, resolution=None, study=None) -> list[str]:
-    """:func:`workbench.preflight.span_notes` for a finished run: its periods from
-    `table` (budget rows), ``[period]`` start and end from the scenario file; with
-    `study`, also the days of the record a default start or end left out
-    (:meth:`workbench.pipeline.Study.span_notes`)."""
-    from .preflight import span_notes
-    from .scenario import load_scenario
-    t = table[table["period"].astype(str) != "span"]
-    if t.empty or "period_start" not in t:
-        return []
-    p = load_scenario(scenario).data["period"]
-    left = [] if study is None else [
-        "note: " + n.removeprefix("period: ") for n in study.span_notes(p.get("start"),
-                                                                       p.get("end"))]
-    return span_notes(p.get("start"), p.get("end"), t["period_start"].min(),
-                      t["period_end"].max(), resolution or p["resolution"]) + left
-
-
-def site_status_lines(table, min_sites=None) -> list[str]:
-    """Where a network's totals are not complete, for the console: one line per element,
-    status and set of missing components, naming the sites (with the periods, where not
-    every period).  Empty for a run of at most `min_sites` sites (default
-    :data:`workbench.report_network.NETWORK_SITES`), whose few sites the report shows
-    one by one.
-
-    A site counts when any of its receptors has that status in that period."""
-    from .report_network import NETWORK_SITES, year_span
-    min_sites = NETWORK_SITES if min_sites is None else min_sites
-    t = table[(table["period"].astype(str) != "span") & (table["species"] == "all")
-              & (table["pathway"] == "total")]
-    if t.empty or t["site"].nunique() <= min_sites:
-        return []
-    every = set(t["period"].astype(str))
-    miss = t["missing_components"].fillna("").astype(str) if "missing_components" in t \
-        else ""
-    t = t.assign(_miss=miss, _period=t["period"].astype(str), _status=t["status"].astype(str))
-    words = {"partial": "partial", "flagged": "flagged (read with care: report.html says why)",
-             "missing": "missing (no data)"}
-    lines = []
-    for el in ("S", "N"):
-        for status, word in words.items():
-            g = t[(t["element"] == el) & (t["_status"] == status)]
-            if status != "partial":            # missing: every component; flagged: kept
-                g = g.assign(_miss="")
-            for m, gm in g.groupby("_miss", sort=True):
-                sites = []
-                for site, gs in gm.groupby("site", sort=False):
-                    ps = set(gs["_period"])
-                    sites.append(f"{site}" if ps == every else f"{site} ({year_span(ps)})")
-                what = f"{el} {word}" + (f" without {', '.join(m.split())}" if m else "")
-                lines.append(f"  {what}: {len(sites)} site{'s' if len(sites) > 1 else ''}: "
-                             + ", ".join(sites))
-    if lines:
-        lines.insert(0, "sites whose totals are not complete (a site counts when any "
-                     "receptor is; summary.csv has each; no period named = every period):")
-    return lines
 
 
 def cmd_demo(args) -> int:
@@ -557,48 +345,6 @@ def build_parser() -> argparse.ArgumentParser:
     from .cli_runs import add_parsers
     add_parsers(sub)                     # verify, compare: run folders handed on
     return p
-
-
-def _in_gc_callback(frame) -> bool:
-    """Whether `frame` runs inside a callback of the garbage collector."""
-    import gc
-    codes = set()
-    for cb in gc.callbacks:
-        fn = getattr(cb, "__func__", cb)
-        code = getattr(fn, "__code__", None)
-        if code is not None:
-            codes.add(code)
-    while frame is not None and codes:
-        if frame.f_code in codes:
-            return True
-        frame = frame.f_back
-    return False
-
-
-def _on_ctrl_c(signum, frame):
-    """SIGINT: KeyboardInterrupt, as Python's own handler, except inside a callback of
-    the garbage collector (dask's scheduler hooks one into this process), where the
-    exception would be printed as "ignored" and the run would go on to its end: there
-    the signal is sent again 20 ms later, once the callback has returned."""
-    if _in_gc_callback(frame):
-        import signal
-        import threading
-        timer = threading.Timer(0.02, signal.raise_signal, (signal.SIGINT,))
-        timer.daemon = True
-        timer.start()
-        return
-    raise KeyboardInterrupt
-
-
-def _catch_ctrl_c():
-    """Install :func:`_on_ctrl_c` where Python's own SIGINT handler is in force (the main
-    thread); returns the handler to restore, or None."""
-    import signal
-    import threading
-    if threading.current_thread() is not threading.main_thread() or \
-            signal.getsignal(signal.SIGINT) is not signal.default_int_handler:
-        return None
-    return signal.signal(signal.SIGINT, _on_ctrl_c)
 
 
 def main(argv=None) -> int:

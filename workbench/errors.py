@@ -100,6 +100,22 @@ def suggest(word: str, choices) -> str:
     return f" (did you mean {close[0]!r}?)" if close else ""
 
 
+def check_choice(option: str, value, choices) -> str:
+    """`value` when it is one of `choices`, else a ValueError naming `option`.
+
+    The message lists the choices and the nearest one (:func:`suggest`):
+
+    >>> check_choice("particle_settling", "stoke", ("stokes", "clift_gauvin"))
+    Traceback (most recent call last):
+    ...
+    ValueError: unknown particle_settling 'stoke'; use one of stokes, clift_gauvin (did you mean 'stokes'?)
+    """
+    if value not in choices:
+        raise ValueError(f"unknown {option} {value!r}; use one of "
+                         f"{', '.join(choices)}{suggest(value, choices)}")
+    return value
+
+
 #: An unsigned number as typed (digits, decimals, exponent): the pattern that the
 #: readers' hints on numbers written with a unit share.
 NUMBER_TEXT = r"(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?"

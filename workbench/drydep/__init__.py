@@ -12,6 +12,8 @@ seasons      Wesely's seasonal category from surface state, month and latitude
 wetness      surface wetness from the met file or the rain/dew rule
 options      DryOptions, LogNormalMode, ParticleSpec and their defaults
 core         velocities()
+core_steps   the codes, the hours counted, the velocity steps of the graph
+core_hourly  the hourly block of velocities()
 """
 from .core import velocities
 from .options import DryOptions, LogNormalMode, ParticleSpec, default_particle_modes

@@ -77,11 +77,8 @@ PERCENT = 100.0
 
 def check_rule(rule: str) -> str:
     """`rule` when it is one of :data:`SO2_CUTICLES`, else a ValueError naming the option."""
-    if rule not in SO2_CUTICLES:
-        from ..errors import suggest
-        raise ValueError(f"unknown so2_cuticle {rule!r}; use one of "
-                         f"{', '.join(SO2_CUTICLES)}{suggest(rule, SO2_CUTICLES)}")
-    return rule
+    from ..errors import check_choice
+    return check_choice("so2_cuticle", rule, SO2_CUTICLES)
 
 
 def so2_external_leaf_resistance(relative_humidity, temperature):

@@ -52,11 +52,8 @@ DRAG_ITERATIONS = 4
 
 def check_settling(rule: str) -> str:
     """`rule` when it is one of :data:`SETTLING_RULES`, else a ValueError naming the option."""
-    if rule not in SETTLING_RULES:
-        from ..errors import suggest
-        raise ValueError(f"unknown particle_settling {rule!r}; use one of "
-                         f"{', '.join(SETTLING_RULES)}{suggest(rule, SETTLING_RULES)}")
-    return rule
+    from ..errors import check_choice
+    return check_choice("particle_settling", rule, SETTLING_RULES)
 
 
 def drag_coefficient(reynolds):

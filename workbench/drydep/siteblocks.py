@@ -3,7 +3,8 @@
 Helpers of :mod:`workbench.drydep.core`: the particle modes' weights and attributes of
 every site of a call, the coordinates of the result, the cut of the sites into blocks
 and the run of the blocks on the thread pool (:func:`workbench.threads.run_each`).  The
-hourly function itself (``workbench.drydep.core._hourly``) is passed in, so that this
+hourly function itself (``workbench.drydep.core._hourly``, defined in
+:mod:`workbench.drydep.core_hourly`) is passed in, so that this
 module does not import the core.
 """
 from __future__ import annotations
