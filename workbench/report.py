@@ -195,6 +195,8 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES, network=False)
     if tr.empty:
         return out + ["<p>No annual totals.</p>"], first
     tr = tr[tr["values"] == "all"]
+    # a sentence's words, not Python's True/False
+    tr = tr.assign(valid=tr["valid"].map({True: "yes", False: "no"}).fillna("–"))
     table = _table_html(tr[["site", "receptor", "element", "n_years", "tau", "p_value",
                             "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid", "note"]].rename(
         columns={"sen_slope_per_yr": "Sen slope [kg/ha/yr per yr]",       # S or N, as the
@@ -221,15 +223,31 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES, network=False)
     return out, first
 
 
+def scheme_title(scheme) -> str:
+    """HTML words for a gas scheme's option value: its published source, then the value
+    the scenario and budget.csv's ``scheme`` column use, e.g. ``Wesely (1989)
+    (<code>gas_scheme = "wesely1989"</code>)``; an unknown value is shown as it is."""
+    import importlib
+
+    from .drydep.gas import SCHEMES
+    key = html.escape(str(scheme))
+    if scheme not in SCHEMES:
+        return key
+    ref = getattr(importlib.import_module(SCHEMES[scheme]), "REFERENCE", "")
+    m = re.match(r".*?\(\d{4}\)", ref)          # the authors and year of the reference
+    return (f"{html.escape(m.group(0))} (<code>gas_scheme = \"{key}\"</code>)" if m
+            else key)
+
+
 def _settings_html(result, all_schemes) -> str:
     """The choices a reader must know before reading any number: gas scheme, NH3."""
     dry = result.options.get("dry")
     scheme = getattr(dry, "gas_scheme", "?")
     nh3 = getattr(dry, "nh3_treatment", "deposition_only")
-    text = f"<b>Gas scheme:</b> {html.escape(str(scheme))}"
+    text = f"<b>Gas scheme:</b> {scheme_title(scheme)}"
     if all_schemes is not None:
-        others = [s for s in dict.fromkeys(all_schemes["scheme"]) if s != scheme]
-        text += (f" (the tables below); also computed: {html.escape(', '.join(others))}, "
+        others = [scheme_title(s) for s in dict.fromkeys(all_schemes["scheme"]) if s != scheme]
+        text += (f" (the tables below); also computed: {', '.join(others)}, "
                  "see <a href='#schemes'>Gas scheme comparison</a>")
     text += ". <b>NH3:</b> " + (
         "net exchange (canopy compensation point; an emission is negative), with the "
@@ -474,10 +492,11 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     body = "\n".join(parts)
     title = "Deposition budget report"
     style = ("body{font-family:sans-serif;max-width:1100px;margin:auto;padding:1em;color:#222}"
-             ".tab{border-collapse:collapse;font-size:85%}.tab td,.tab th{padding:2px 6px;"
+             ".tab{border-collapse:collapse;font-size:85%;display:block;max-width:100%;"
+             "overflow-x:auto}.tab td,.tab th{padding:2px 6px;"
              "border-bottom:1px solid #ddd}.caution{background:#fff6e0;border-left:4px solid "
              "#E69F00;padding:.6em 1em}.settings{background:#eef4fa;padding:.4em 1em}"
-             "@media print{body{max-width:none;font-size:10pt}.tab{font-size:8pt}"
+             "@media print{body{max-width:none;font-size:10pt}.tab{font-size:8pt;display:table}"
              "tr,.js-plotly-plot{break-inside:avoid}details{display:block}}")
     return _numbered_figures(
         f"<!DOCTYPE html><html><head><meta charset='utf-8'><title>{title}</title>"
