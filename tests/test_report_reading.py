@@ -47,3 +47,24 @@ def test_trend_validity_in_words(report):
     cells = re.findall(r"<td>(.*?)</td>", table)
     assert "True" not in cells and "False" not in cells
     assert "no" in cells            # two years: too few for a valid trend
+
+
+def test_bracket_of_0_says_why(tmp_path):
+    """At the demo's bulk-collector site the particle bracket read a bare 0 for every
+    period; the reason (the pair counted in the wet deposition) was only in budget.nc.
+    The report now lists each bracket note under the table, with the option that made it
+    written as a setting (bulk_correction = "exclude_particles"), not as two bare words."""
+    scenario = write_demo_subset(tmp_path / "mere", ("mere",), 2020, 2021)
+    out = tmp_path / "out"
+    assert main(["run", str(scenario), "--out", str(out), "--quiet"]) == 0
+    text = html.unescape((out / "report.html").read_text(encoding="utf-8"))
+    part = text[text.index("<h2>Dry nitrogen"):]
+    part = part[:part.index("<h2>", 5)]
+    table = part[part.index("<table"):part.index("</table>")]
+    assert re.search(r"<td>mere</td>\s*<td>wetland</td>.*?<td>0</td>", table, re.S)
+    notes = part[part.index("</table>"):]
+    item = re.search(r"<li><b>dry_N_all_particle_kg_ha</b> at [^<]*mere · wetland[^<]*</li>",
+                     notes)
+    assert item and "caught by the bulk collector" in item.group(0), notes
+    assert 'bulk_correction = "exclude_particles"' in item.group(0)
+    assert "(bulk_correction exclude_particles)" not in text

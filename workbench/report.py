@@ -239,6 +239,44 @@ def scheme_title(scheme) -> str:
             else key)
 
 
+#: The bracket columns of the report's table that a bracket note explains.
+_BRACKET_COLUMN = {"all_gas": "dry_N_all_gas_kg_ha", "all_particle": "dry_N_all_particle_kg_ha"}
+
+
+def _bracket_notes_html(budget, frame: pd.DataFrame) -> str:
+    """A list of the reasons of the bracket table's rows (budget.nc's ``bracket_*_note``):
+    which column, which sites and receptors, which periods, why (e.g. a particle bracket of
+    0 at a bulk-collector site, its pair counted in the wet deposition). Empty when no row
+    of `frame` has a note."""
+    names = [v for v in budget.data_vars if v.startswith("bracket_") and v.endswith("_note")]
+    if not names or frame.empty:
+        return ""
+    notes = budget[names].to_dataframe().reset_index()
+    notes = frame[["site", "receptor", "period"]].merge(notes, on=["site", "receptor", "period"],
+                                                         how="inner")
+    long = notes.melt(id_vars=["site", "receptor", "period"], value_vars=names,
+                      var_name="var", value_name="note")
+    long = long[long["note"].fillna("").astype(str).str.strip() != ""]
+    if long.empty:
+        return ""
+    # bracket_nitrate_all_particle_note -> the table's column dry_N_all_particle_kg_ha
+    long["column"] = long["var"].str.extract(r"_(all_gas|all_particle)_note$")[0].map(
+        _BRACKET_COLUMN)
+    n_periods = frame.groupby(["site", "receptor"])["period"].nunique()
+    items = []
+    for (col, note), g in long.groupby(["column", "note"], sort=False):
+        where = []
+        for (site, rec), h in g.groupby(["site", "receptor"], sort=False):
+            periods = sorted(set(map(str, h["period"])))
+            when = ("every period" if len(periods) == n_periods.get((site, rec), -1)
+                    else ", ".join(periods))
+            where.append(f"{site} · {rec} ({when})")
+        items.append(f"<li><b>{html.escape(col)}</b> at {html.escape('; '.join(where))}: "
+                     f"{html.escape(note)}</li>")
+    return ("<p>Why a bracket is 0 or shown as – in the table above (budget.nc's "
+            "bracket_*_note):</p><ul>" + "".join(items) + "</ul>")
+
+
 def _settings_html(result, all_schemes) -> str:
     """The choices a reader must know before reading any number: gas scheme, NH3."""
     dry = result.options.get("dry")
@@ -406,6 +444,7 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
                                      "status", "missing_components", *cols]])
         parts.append(fold(bracket, len(frame), "the bracket of every site, receptor and period")
                      if network else bracket)
+        parts.append(_bracket_notes_html(result.budget, frame))
     notes_col = t["note"].dropna() if "note" in t else pd.Series(dtype=str)
     # the components' own notes: a sum row (species "all") gathers them again
     notes_col = notes_col[(notes_col != "") & (t.loc[notes_col.index, "species"] != "all")]
