@@ -68,3 +68,16 @@ def test_bracket_of_0_says_why(tmp_path):
     assert item and "caught by the bulk collector" in item.group(0), notes
     assert 'bulk_correction = "exclude_particles"' in item.group(0)
     assert "(bulk_correction exclude_particles)" not in text
+
+
+def test_trend_notes_without_the_variant_key(report):
+    """The trend table and figure legends began every note with "values: all", the name
+    of trends.csv's ``values`` column and its value; the report shows that variant only
+    and says so in its paragraph."""
+    text = html.unescape(report)
+    trends = text[text.index("<h2>Trends"):]
+    trends = trends[:trends.index("<h2>", 5)]
+    assert "values: all" not in trends
+    assert "filled years included" in trends
+    table = trends[:trends.index("</table>")]
+    assert "fewer than 10 complete years" in table

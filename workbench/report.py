@@ -189,14 +189,18 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES, network=False)
            "95 % confidence interval of the slope. The slope in % per yr is relative to "
            "the median of the years used (the Sen line's level in the middle of the "
            "series), not to the first year; where that median is 0 or a value is below 0 "
-           "there is no percent, and the note says why. trends.csv has every component, "
-           "the seasonal Kendall test on monthly values and the notes.</p>"]
+           "there is no percent, and the note says why. The test takes every year's total "
+           "as computed, filled years included; trends.csv has it also without the filled "
+           "years, every component, the seasonal Kendall test on monthly values and the "
+           "notes.</p>"]
     tr = trend_table(tot, changes=change_notes(cat, study.inputs))
     if tr.empty:
         return out + ["<p>No annual totals.</p>"], first
     tr = tr[tr["values"] == "all"]
-    # a sentence's words, not Python's True/False
-    tr = tr.assign(valid=tr["valid"].map({True: "yes", False: "no"}).fillna("–"))
+    # a sentence's words, not Python's True/False; the rows shown are all of the
+    # "values: all" variant, which the paragraph above says: the note keeps the reasons
+    tr = tr.assign(valid=tr["valid"].map({True: "yes", False: "no"}).fillna("–"),
+                   note=tr["note"].str.replace(r"^values: all(; |$)", "", regex=True))
     table = _table_html(tr[["site", "receptor", "element", "n_years", "tau", "p_value",
                             "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid", "note"]].rename(
         columns={"sen_slope_per_yr": "Sen slope [kg/ha/yr per yr]",       # S or N, as the
