@@ -200,8 +200,9 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                 c = np.where(excl, compl[..., jw], c)
                 fails[..., j] = np.where(excl, False, fails[..., j])
                 comp_note[..., j] = np.where(excl, f"caught by the bulk collector: counted in "
-                                             f"its wet {ion} deposition, 0 here (bulk_correction "
-                                             "exclude_particles)", comp_note[..., j])
+                                             f"its wet {ion} deposition, 0 here (the scenario's "
+                                             "bulk_correction = \"exclude_particles\")",
+                                             comp_note[..., j])
                 if excl.any():
                     notes.append(f"{sp}: particle dry deposition at bulk-collector sites taken "
                                  f"as caught by the collector (in its wet {ion}; 0 in the dry "

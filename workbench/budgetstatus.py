@@ -589,8 +589,9 @@ def bulk_caught_brackets(brackets, pairs, bulk, component_of, options):
                          (f"{name}_completeness", compl),
                          (f"{name}_note", np.full(dep.shape, "caught by the bulk collector: "
                                                   f"the {pair} pair as particles is counted in "
-                                                  "the wet deposition, 0 here (bulk_correction "
-                                                  "exclude_particles)", dtype=object))):
+                                                  "the wet deposition, 0 here (the scenario's "
+                                                  "bulk_correction = \"exclude_particles\")",
+                                                  dtype=object))):
             v = brackets[var]
             brackets[var] = v.copy(data=np.where(at, new, v.values))
     return brackets

@@ -189,12 +189,18 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES, network=False)
            "95 % confidence interval of the slope. The slope in % per yr is relative to "
            "the median of the years used (the Sen line's level in the middle of the "
            "series), not to the first year; where that median is 0 or a value is below 0 "
-           "there is no percent, and the note says why. trends.csv has every component, "
-           "the seasonal Kendall test on monthly values and the notes.</p>"]
+           "there is no percent, and the note says why. The test takes every year's total "
+           "as computed, filled years included; trends.csv has it also without the filled "
+           "years, every component, the seasonal Kendall test on monthly values and the "
+           "notes.</p>"]
     tr = trend_table(tot, changes=change_notes(cat, study.inputs))
     if tr.empty:
         return out + ["<p>No annual totals.</p>"], first
     tr = tr[tr["values"] == "all"]
+    # a sentence's words, not Python's True/False; the rows shown are all of the
+    # "values: all" variant, which the paragraph above says: the note keeps the reasons
+    tr = tr.assign(valid=tr["valid"].map({True: "yes", False: "no"}).fillna("–"),
+                   note=tr["note"].str.replace(r"^values: all(; |$)", "", regex=True))
     table = _table_html(tr[["site", "receptor", "element", "n_years", "tau", "p_value",
                             "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid", "note"]].rename(
         columns={"sen_slope_per_yr": "Sen slope [kg/ha/yr per yr]",       # S or N, as the
@@ -221,15 +227,69 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES, network=False)
     return out, first
 
 
+def scheme_title(scheme) -> str:
+    """HTML words for a gas scheme's option value: its published source, then the value
+    the scenario and budget.csv's ``scheme`` column use, e.g. ``Wesely (1989)
+    (<code>gas_scheme = "wesely1989"</code>)``; an unknown value is shown as it is."""
+    import importlib
+
+    from .drydep.gas import SCHEMES
+    key = html.escape(str(scheme))
+    if scheme not in SCHEMES:
+        return key
+    ref = getattr(importlib.import_module(SCHEMES[scheme]), "REFERENCE", "")
+    m = re.match(r".*?\(\d{4}\)", ref)          # the authors and year of the reference
+    return (f"{html.escape(m.group(0))} (<code>gas_scheme = \"{key}\"</code>)" if m
+            else key)
+
+
+#: The bracket columns of the report's table that a bracket note explains.
+_BRACKET_COLUMN = {"all_gas": "dry_N_all_gas_kg_ha", "all_particle": "dry_N_all_particle_kg_ha"}
+
+
+def _bracket_notes_html(budget, frame: pd.DataFrame) -> str:
+    """A list of the reasons of the bracket table's rows (budget.nc's ``bracket_*_note``):
+    which column, which sites and receptors, which periods, why (e.g. a particle bracket of
+    0 at a bulk-collector site, its pair counted in the wet deposition). Empty when no row
+    of `frame` has a note."""
+    names = [v for v in budget.data_vars if v.startswith("bracket_") and v.endswith("_note")]
+    if not names or frame.empty:
+        return ""
+    notes = budget[names].to_dataframe().reset_index()
+    notes = frame[["site", "receptor", "period"]].merge(notes, on=["site", "receptor", "period"],
+                                                         how="inner")
+    long = notes.melt(id_vars=["site", "receptor", "period"], value_vars=names,
+                      var_name="var", value_name="note")
+    long = long[long["note"].fillna("").astype(str).str.strip() != ""]
+    if long.empty:
+        return ""
+    # bracket_nitrate_all_particle_note -> the table's column dry_N_all_particle_kg_ha
+    long["column"] = long["var"].str.extract(r"_(all_gas|all_particle)_note$")[0].map(
+        _BRACKET_COLUMN)
+    n_periods = frame.groupby(["site", "receptor"])["period"].nunique()
+    items = []
+    for (col, note), g in long.groupby(["column", "note"], sort=False):
+        where = []
+        for (site, rec), h in g.groupby(["site", "receptor"], sort=False):
+            periods = sorted(set(map(str, h["period"])))
+            when = ("every period" if len(periods) == n_periods.get((site, rec), -1)
+                    else ", ".join(periods))
+            where.append(f"{site} · {rec} ({when})")
+        items.append(f"<li><b>{html.escape(col)}</b> at {html.escape('; '.join(where))}: "
+                     f"{html.escape(note)}</li>")
+    return ("<p>Why a bracket is 0 or shown as – in the table above (budget.nc's "
+            "bracket_*_note):</p><ul>" + "".join(items) + "</ul>")
+
+
 def _settings_html(result, all_schemes) -> str:
     """The choices a reader must know before reading any number: gas scheme, NH3."""
     dry = result.options.get("dry")
     scheme = getattr(dry, "gas_scheme", "?")
     nh3 = getattr(dry, "nh3_treatment", "deposition_only")
-    text = f"<b>Gas scheme:</b> {html.escape(str(scheme))}"
+    text = f"<b>Gas scheme:</b> {scheme_title(scheme)}"
     if all_schemes is not None:
-        others = [s for s in dict.fromkeys(all_schemes["scheme"]) if s != scheme]
-        text += (f" (the tables below); also computed: {html.escape(', '.join(others))}, "
+        others = [scheme_title(s) for s in dict.fromkeys(all_schemes["scheme"]) if s != scheme]
+        text += (f" (the tables below); also computed: {', '.join(others)}, "
                  "see <a href='#schemes'>Gas scheme comparison</a>")
     text += ". <b>NH3:</b> " + (
         "net exchange (canopy compensation point; an emission is negative), with the "
@@ -388,6 +448,7 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
                                      "status", "missing_components", *cols]])
         parts.append(fold(bracket, len(frame), "the bracket of every site, receptor and period")
                      if network else bracket)
+        parts.append(_bracket_notes_html(result.budget, frame))
     notes_col = t["note"].dropna() if "note" in t else pd.Series(dtype=str)
     # the components' own notes: a sum row (species "all") gathers them again
     notes_col = notes_col[(notes_col != "") & (t.loc[notes_col.index, "species"] != "all")]
@@ -474,10 +535,11 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     body = "\n".join(parts)
     title = "Deposition budget report"
     style = ("body{font-family:sans-serif;max-width:1100px;margin:auto;padding:1em;color:#222}"
-             ".tab{border-collapse:collapse;font-size:85%}.tab td,.tab th{padding:2px 6px;"
+             ".tab{border-collapse:collapse;font-size:85%;display:block;max-width:100%;"
+             "overflow-x:auto}.tab td,.tab th{padding:2px 6px;"
              "border-bottom:1px solid #ddd}.caution{background:#fff6e0;border-left:4px solid "
              "#E69F00;padding:.6em 1em}.settings{background:#eef4fa;padding:.4em 1em}"
-             "@media print{body{max-width:none;font-size:10pt}.tab{font-size:8pt}"
+             "@media print{body{max-width:none;font-size:10pt}.tab{font-size:8pt;display:table}"
              "tr,.js-plotly-plot{break-inside:avoid}details{display:block}}")
     return _numbered_figures(
         f"<!DOCTYPE html><html><head><meta charset='utf-8'><title>{title}</title>"
