@@ -77,6 +77,11 @@ def test_only_wanted_pairs_are_computed(setup, runs):
             unwanted = a[~active]
             if a.dtype.kind == "f":
                 assert np.isnan(unwanted).all(), name
+            elif "flag_meanings" in v.attrs and "unknown" in v.attrs["flag_meanings"].split():
+                # a flag variable (wetness_source): its "unknown" code, not 0 (a real code)
+                words = v.attrs["flag_meanings"].split()
+                unknown = np.asarray(v.attrs["flag_values"])[words.index("unknown")]
+                assert (unwanted == unknown).all(), name
             else:
                 assert not unwanted.astype(bool).any(), name
         else:
