@@ -237,8 +237,7 @@ def _exact_repeats(key, values):
     start = np.maximum.accumulate(np.where(new, np.arange(len(sk)), 0))
     again, of = order[~new], order[start[~new]]
     for v in values.values():
-        a, b = v[again], v[of]
-        if not ((a == b) | (np.isnan(a) & np.isnan(b))).all():
+        if not np.array_equal(v[again], v[of], equal_nan=True):
             return None, None
     return again, of
 
