@@ -9,7 +9,8 @@ row flagged with a hint, so that the ledger says what happened to it:
 * an air concentration above the plausible maximum of its species: masked; when more
   than half of a sampler's values sit above the maximum and a factor 1000 brings them
   back into range, the hint names the likely unit slip (ng/m3 written under a ug/m3
-  header, ppb under ppm).
+  header, ppb under ppm), and every value of that sampler is masked, those below the
+  maximum too (they are 1000x too high as well).
 
 The thresholds are in :data:`AIR_RANGES`, each with its source.  Slips that stay in
 range (element vs species basis of a particle column, ppb vs ug/m3 of a gas measured
@@ -164,7 +165,15 @@ def air_checks(species: str, ugm3, censored, groups, unit: str | None = None):
         g = pd.Series(groups)
         share = (pd.Series(too_high.astype(float)).where(~np.isnan(v)).groupby(g)
                  .transform("mean").to_numpy())
-        slip = too_high & (share > 0.5) & (v / UNIT_SLIP <= hi)
+        # a sampler whose values are mostly too high by the factor is in the smaller
+        # unit as a whole: its values below the maximum are 1000x too high as well
+        # (300 ng/m3 of SO2 read as 300 ug/m3), so every value of it is masked, not
+        # only those above the maximum
+        fits = too_high & (v / UNIT_SLIP <= hi)
+        slip_group = (share > 0.5) & (pd.Series(fits).groupby(g).transform("any").to_numpy())
+        with np.errstate(invalid="ignore"):   # a negative stays censored (or masked)
+            slip = slip_group & (v > 0) & ~(too_high & ~fits)
+        too_high = too_high | slip
         reasons[too_high & ~slip] = (f"{species} above the plausible {hi:g} ug/m3 (masked)")
         small = thousandth_unit(unit) if unit else ""
         guess = (f"{small} written under a {unit} header?" if small else
