@@ -57,6 +57,15 @@ AIR_RANGES = {
 #: under a ug/m3 header, ppb under ppm) are too high [-] (by definition of the SI
 #: prefixes).
 UNIT_SLIP = 1000.0
+#: Share of a sampler's values above the maximum that makes it a unit slip when every
+#: one of them comes back into range at 1/1000 [-] (a quarter; our choice: the maxima
+#: of :data:`AIR_RANGES` bound single high periods, so a quarter of a sampler's periods
+#: above one is no real record; with a share above one half a slip needs only one value
+#: back in range, as before).
+SLIP_SHARE_ALL_FIT = 0.25
+#: Fewest values above the maximum for that rule [-] (our choice: a few high weeks of a
+#: short record are no pattern).
+SLIP_MIN_VALUES = 8
 #: Units a column may be written in, searched for the one 1000x smaller than a header's.
 _SLIP_UNITS = ("pg/m3", "ng/m3", "ug/m3", "mg/m3", "ppt", "ppb", "ppm",
                "fmol/mol", "pmol/mol", "nmol/mol", "umol/mol", "pmol/m3", "nmol/m3",
@@ -171,6 +180,13 @@ def air_checks(species: str, ugm3, censored, groups, unit: str | None = None):
         # only those above the maximum
         fits = too_high & (v / UNIT_SLIP <= hi)
         slip_group = (share > 0.5) & (pd.Series(fits).groupby(g).transform("any").to_numpy())
+        # a species of wide range (NH3: 1000 ug/m3) in ng/m3 puts only its upper values
+        # above the maximum (a grassland's 0.8 ug/m3 read as 800): a sampler with a
+        # sizeable share above it, every one of them back in range at 1/1000, is one too
+        fits_all = pd.Series(fits == too_high).groupby(g).transform("all").to_numpy()
+        n_high = pd.Series(too_high).groupby(g).transform("sum").to_numpy()
+        slip_group |= ((share >= SLIP_SHARE_ALL_FIT) & fits_all
+                       & (n_high >= SLIP_MIN_VALUES))
         with np.errstate(invalid="ignore"):   # a negative stays censored (or masked)
             slip = slip_group & (v > 0) & ~(too_high & ~fits)
         too_high = too_high | slip
