@@ -174,3 +174,62 @@ def test_unit_slip_hint_names_the_header_unit(tmp_path, cat, old, new, hint):
     assert np.isnan(ds[sp].values[:2]).all()
     reasons = {x for _, r in _ledger_reasons(led).values() for x in r.split("; ")}
     assert {x for x in reasons if "too high" in x} == {hint}
+
+
+def test_a_slipped_sampler_loses_its_values_below_the_maximum_too(tmp_path, cat):
+    """SO2 of one filter pack in ng/m3 under a ug/m3 header: 2100 and 1800 lie above
+    the 500 ug/m3 maximum, 300 (0.3 ug/m3) below it.  The sampler is judged in ng/m3 as
+    a whole, so the 300 is 1000x too high as well; before, it stayed in the data as
+    300 ug/m3 of SO2 without a flag, a silently plausible-looking number."""
+    p = tmp_path / "a.csv"
+    p.write_text(AIR.replace("fp1,2.0,", "fp1,2100,").replace("fp1,<0.1,", "fp1,1800,")
+                 + "alpha,2020-01-21T09:00,2020-01-28T09:00,fp1,300,0.2,1.0,1.0,4.0,filter pack\n")
+    ds, led = read_air(p, cat)
+    so2 = dict(zip(ds["line"].values.tolist(), ds["SO2"].values.tolist()))
+    assert np.isnan([so2[3], so2[4], so2[6]]).all() and so2[5] > 0, so2
+    hint = ("SO2 values look 1000x too high at this sampler: ng/m3 written under a ug/m3 "
+            "header? (masked)")
+    r = _ledger_reasons(led)
+    assert r[3] == r[4] == r[6] == ("flagged", hint), r
+    assert r[5] == ("accepted", "")
+
+
+def test_slip_masks_every_value_of_the_sampler_alone():
+    """air_checks: at a sampler judged in the smaller unit every positive value is
+    masked with the hint (one 2.5 ng/m3 too); another sampler's values stay."""
+    v = np.array([2100.0, 1800.0, 2.5, 2.0, 3.0])
+    groups = np.array(["a", "a", "a", "b", "b"])
+    bad, why = air_checks("SO2", v, np.zeros(5, bool), groups, unit="ug/m3")
+    assert bad.tolist() == [True, True, True, False, False]
+    assert why[2] == why[0] and "look 1000x too high" in why[2]
+
+
+def test_nh3_of_a_clean_site_in_ng_per_m3_is_a_slip_though_most_values_stay_in_range():
+    """NH3 of a grassland in ng/m3 under a ug/m3 header (0.2-3 ug/m3 read as 200-3000):
+    with the wide NH3 maximum (1000 ug/m3) only a third lie above it, so "more than half
+    above" missed the slip; those were masked as "above the plausible", the other two
+    thirds read 1000x too high without a flag.  Now a quarter or more above the maximum,
+    every one of them back in range at 1/1000, masks the whole sampler with the hint."""
+    rng = np.random.default_rng(3)
+    v = np.exp(rng.normal(np.log(800.0), 0.6, 40))       # ng/m3 of a clean site
+    assert 0.25 <= (v > 1000).mean() <= 0.5
+    groups = np.array(["fell"] * 40 + ["ridge"] * 4)
+    v = np.r_[v, [1.1, 0.9, 1.4, 1.2]]
+    bad, why = air_checks("NH3", v, np.zeros(44, bool), groups, unit="ug/m3")
+    assert bad[:40].all() and not bad[40:].any()
+    assert set(why[:40]) == {"NH3 values look 1000x too high at this sampler: ng/m3 "
+                             "written under a ug/m3 header? (masked)"}
+
+
+@pytest.mark.parametrize("high", [
+    [1200.0] * 7 + [900.0] * 13,              # 7 above: under the floor of 8 values
+    [1200.0] * 8 + [900.0] * 30,              # 8 of 38 above: under a quarter
+    [1200.0] * 9 + [2.0e6] + [900.0] * 20,    # one far too high even at 1/1000
+])
+def test_a_few_high_weeks_of_a_livestock_site_stay_above_the_plausible(high):
+    """NH3 beside housing, some hundreds of ug/m3 with some weeks above the maximum:
+    those are masked as above the plausible, the rest kept (no unit slip)."""
+    v = np.array(high)
+    bad, why = air_checks("NH3", v, np.zeros(len(v), bool), np.array(["farm"] * len(v)))
+    assert bad.tolist() == (v > 1000).tolist()
+    assert "look 1000x" not in " ".join(why)

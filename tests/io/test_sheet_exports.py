@@ -466,3 +466,19 @@ def test_the_demo_met_saved_from_a_sheet_as_the_line_reader(tmp_path, monkeypatc
     for v in ref[0].data_vars:
         np.testing.assert_array_equal(fast[0][v].values, ref[0][v].values)
     assert fast[1].table["reason"].tolist() == ref[1].table["reason"].tolist()
+
+
+@pytest.mark.parametrize("pad", [",,,,,,,,,", ',"","",,', " , , "])
+def test_a_meta_line_padded_by_a_sheet_is_read_as_written(tmp_path, cat, monkeypatch, pad):
+    """A sheet saves the '# time_label: start' line with the empty cells of the widest
+    line after it: both readers read 'start' (before: "unknown time label: got
+    'start,,,,,,,,,'"), the times as those of the plain file."""
+    body = HEAD + "".join(_rows("alpha", "2020-03-01T00:00", 48))
+    plain = _write(tmp_path, "# time_label: start\n" + body, name="plain")
+    p = _write(tmp_path, "# time_label: start" + pad + "\n" + body)
+    ref, _ = _line_reader(monkeypatch, plain, cat)
+    fast = metfast.read_met_csv_fast(p, cat, chunk_bytes=3000)
+    assert fast is not None
+    line = _line_reader(monkeypatch, p, cat)
+    assert_same(fast, line)
+    np.testing.assert_array_equal(line[0]["time"].values, ref["time"].values)

@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import csv
 import io
+import re
 import warnings
 import zlib
 
@@ -304,6 +305,23 @@ def _strip_runs(text):
     return text[keep]
 
 
+#: The empty cells a spreadsheet adds after a ``#`` line's one cell when it saves the
+#: file again (``# time_label: end,,,,,,,``; also quoted or padded: ``,"",``).
+_SHEET_PAD = re.compile(r'(?:[^\S\n]*,[^\S\n]*(?:""[^\S\n]*)?)+$')
+
+
+def meta_line(line: str) -> str:
+    """A ``#`` line as written, stripped of blanks and of the empty cells a spreadsheet
+    pads it with (every line of a sheet saved as CSV holds as many cells as the widest).
+
+    >>> meta_line("# time_label: end,,,,, ")
+    '# time_label: end'
+    >>> meta_line('# reference_state: 20 degC, 1013.25 hPa,"",,')
+    '# reference_state: 20 degC, 1013.25 hPa'
+    """
+    return _SHEET_PAD.sub("", line.strip()).strip()
+
+
 def read_head(stream):
     """(meta, number of lines above the header, header text) or None, by the rules of
     :meth:`~workbench.io.table.RawTable.read`: ``#`` lines (``key: value`` read as
@@ -327,7 +345,7 @@ def read_head(stream):
         s = ln.strip()
         if in_meta and s.startswith("#"):
             n_meta += 1
-            body = s.lstrip("#").strip()
+            body = meta_line(s).lstrip("#").strip()
             if ":" in body:
                 key, val = body.split(":", 1)
                 meta[key.strip().lower()] = val.strip()

@@ -9,7 +9,8 @@ row flagged with a hint, so that the ledger says what happened to it:
 * an air concentration above the plausible maximum of its species: masked; when more
   than half of a sampler's values sit above the maximum and a factor 1000 brings them
   back into range, the hint names the likely unit slip (ng/m3 written under a ug/m3
-  header, ppb under ppm).
+  header, ppb under ppm), and every value of that sampler is masked, those below the
+  maximum too (they are 1000x too high as well).
 
 The thresholds are in :data:`AIR_RANGES`, each with its source.  Slips that stay in
 range (element vs species basis of a particle column, ppb vs ug/m3 of a gas measured
@@ -56,6 +57,15 @@ AIR_RANGES = {
 #: under a ug/m3 header, ppb under ppm) are too high [-] (by definition of the SI
 #: prefixes).
 UNIT_SLIP = 1000.0
+#: Share of a sampler's values above the maximum that makes it a unit slip when every
+#: one of them comes back into range at 1/1000 [-] (a quarter; our choice: the maxima
+#: of :data:`AIR_RANGES` bound single high periods, so a quarter of a sampler's periods
+#: above one is no real record; with a share above one half a slip needs only one value
+#: back in range, as before).
+SLIP_SHARE_ALL_FIT = 0.25
+#: Fewest values above the maximum for that rule [-] (our choice: a few high weeks of a
+#: short record are no pattern).
+SLIP_MIN_VALUES = 8
 #: Units a column may be written in, searched for the one 1000x smaller than a header's.
 _SLIP_UNITS = ("pg/m3", "ng/m3", "ug/m3", "mg/m3", "ppt", "ppb", "ppm",
                "fmol/mol", "pmol/mol", "nmol/mol", "umol/mol", "pmol/m3", "nmol/m3",
@@ -164,7 +174,22 @@ def air_checks(species: str, ugm3, censored, groups, unit: str | None = None):
         g = pd.Series(groups)
         share = (pd.Series(too_high.astype(float)).where(~np.isnan(v)).groupby(g)
                  .transform("mean").to_numpy())
-        slip = too_high & (share > 0.5) & (v / UNIT_SLIP <= hi)
+        # a sampler whose values are mostly too high by the factor is in the smaller
+        # unit as a whole: its values below the maximum are 1000x too high as well
+        # (300 ng/m3 of SO2 read as 300 ug/m3), so every value of it is masked, not
+        # only those above the maximum
+        fits = too_high & (v / UNIT_SLIP <= hi)
+        slip_group = (share > 0.5) & (pd.Series(fits).groupby(g).transform("any").to_numpy())
+        # a species of wide range (NH3: 1000 ug/m3) in ng/m3 puts only its upper values
+        # above the maximum (a grassland's 0.8 ug/m3 read as 800): a sampler with a
+        # sizeable share above it, every one of them back in range at 1/1000, is one too
+        fits_all = pd.Series(fits == too_high).groupby(g).transform("all").to_numpy()
+        n_high = pd.Series(too_high).groupby(g).transform("sum").to_numpy()
+        slip_group |= ((share >= SLIP_SHARE_ALL_FIT) & fits_all
+                       & (n_high >= SLIP_MIN_VALUES))
+        with np.errstate(invalid="ignore"):   # a negative stays censored (or masked)
+            slip = slip_group & (v > 0) & ~(too_high & ~fits)
+        too_high = too_high | slip
         reasons[too_high & ~slip] = (f"{species} above the plausible {hi:g} ug/m3 (masked)")
         small = thousandth_unit(unit) if unit else ""
         guess = (f"{small} written under a {unit} header?" if small else

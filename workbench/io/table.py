@@ -25,6 +25,7 @@ import pandas as pd
 from ..errors import InputError, suggest
 from ..units import Header, parse_header
 from .ledger import compact_lines
+from .linechunks import meta_line
 # the cell texts and their hints (defined here before)
 from .tablecells import (CENSORED_ELSEWHERE, FORMULA_ERRORS, MISSING_TEXTS,  # noqa: F401
                          SAMPLE_MISSING_TEXTS, _BLANK, number_hint)
@@ -93,6 +94,7 @@ class RawTable:
         for ln in all_lines:
             s = ln.strip()
             if s.startswith("#"):
+                s = meta_line(s)        # a sheet's empty cells after it dropped
                 n_meta += 1
                 top.setdefault(s, n_meta)
                 body = s.lstrip("#").strip()

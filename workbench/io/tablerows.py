@@ -17,6 +17,7 @@ import pandas as pd
 
 from ..errors import InputError
 from ..units import misplaced_unit
+from .linechunks import meta_line
 from .readbytes import read_hashed
 
 
@@ -206,7 +207,7 @@ def _top_lines_again(path, body, rest, n_meta, top, meta, meta_lines):
         pos = m.start()
         if k == 0:
             continue                            # the header itself (a '#' inside it)
-        s, line = m.group().strip(), n_meta + 1 + k
+        s, line = meta_line(m.group()), n_meta + 1 + k
         if s in top:
             out.append(line)
             rest[k] = ""
