@@ -90,10 +90,13 @@ def apply_pair_shift(layer, site, noise, year0, out, draw):
             add[into] = (dry_ratio(mv, noise.vd[:, yi, k], a_mv, ps.fill[into], cf)
                          * mv.contrib.sum(0).T[None])
         both = np.isfinite(point[..., index[gas]]) & np.isfinite(point[..., index[part]])
+        # a draw whose share is 0 in every year keeps its draws as they were, bit for bit
+        # (the moved part at a share of 0 sums to 0 only to within rounding)
+        moves = (ps.share != 0).any(axis=1)[:, None, None] & both[None]
         for sp in (gas, part):
             if sp not in kept and sp not in add:
                 continue
             j = index[sp]
             v = kept.get(sp, out[..., j]) + add.get(sp, 0.0)
-            out[..., j] = np.where(both[None], v, out[..., j])
+            out[..., j] = np.where(moves, v, out[..., j])
     return out
