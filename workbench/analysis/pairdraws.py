@@ -21,7 +21,16 @@ component_rows`); each moved sample keeps its own analytical errors (its
 member's, by its identity), the moved part takes the Vd factor and the fill error of
 the Vd it is deposited with.  Both members are in mol of N (one N atom each).  The
 shift is applied where both members of the pair have a deposition at the site and
-period; elsewhere the components stay as drawn without it.
+period; elsewhere the components stay as drawn without it.  A draw whose share is 0
+in every year keeps its draws bit for bit.
+
+Under ``[dry] nh3_treatment = "bidirectional"`` the NH3 component is the net exchange
+:math:`F = \\chi_a V_d - E` of the compensation point model, linear in the air
+concentration :math:`\\chi_a` for a fixed canopy state (:math:`V_d` and :math:`E`
+do not depend on it, :mod:`workbench.drydep.nh3_bidirectional`).  So the pNH4 moved
+into NH3 (:math:`A^{p \\to g}_n`) is deposited with the exchange's :math:`V_d`
+(:func:`.pairlayer.moved_pieces`) and adds no emission; the NH3 moved out scales the
+deposition part of its rows only (:func:`workbench.analysis.drydraws.nh3_net_draws`).
 
 The shares are drawn in :mod:`.pairnoise`, the moved rows built in :mod:`.pairlayer`.
 Units: deposition [mol m-2], shares and factors [1].

@@ -165,10 +165,13 @@ class UncertaintyOptions:
         gas/particle split of a filter pack".
     pair_shift_ammonium : tuple
         The same for the ammonium pair: s > 0 a share of the measured pNH4 that was NH3
-        (deposited with the NH3 Vd: under ``nh3_treatment = "bidirectional"`` the
-        deposition-only scheme's, as the bracket), s < 0 a share of the measured NH3
-        that was pNH4; drawn apart from the nitrate's (its own stream).  [0, 0]
-        (default) switches it off.
+        (deposited with the NH3 Vd: under ``nh3_treatment = "bidirectional"`` the Vd
+        of the net exchange, whose net flux is linear in the air concentration), s < 0
+        a share of the measured NH3 that was pNH4 (under ``"bidirectional"`` taken
+        from the deposition part of the net exchange, its emission part kept); drawn
+        apart from the nitrate's (its own stream).  [0, 0] (default) switches it off.
+        Under ``"bidirectional"`` with ``nh3_acid_ratio_from_air`` a drawn share of
+        either pair is refused (:func:`pair_shift_refusal`).
     """
 
     draws: int = 0
