@@ -91,6 +91,65 @@ def vd_axes(o, fill):
     return _graph.content_digest([np.asarray(vd["site"].values, object), vd["time"].values])
 
 
+def _axes_node(run, fill):
+    """The Node of a filled Vd's site and time axes, keyed by their content."""
+    return _graph.Node("vd_axes:" + run("vd_axes", deps={"fill": fill}).value,
+                       fill.value["vd"])
+
+
+def _member_rows(run, air_node, sp, fill, axes, met, times, sites):
+    """(air side, rows) Nodes of species `sp` of `air_node` deposited with the filled Vd
+    `fill` (the stages ``air_content``, ``flux_inputs`` and ``species_rows``)."""
+    content = run("air_content", deps={"air": air_node}, params={"species": sp})
+    air_c = _graph.Node("air_content:" + content.value, air_node.value)
+    inputs = run("flux_inputs", deps={"air": air_c, "axes": axes, "met": met},
+                 params={"species": sp, "sites": tuple(sites)})
+    return inputs, run("species_rows", deps={"inputs": inputs, "fill": fill,
+                                             "times": times})
+
+
+def exchange_member_rows(air, vel, met, sites, member, options: BudgetOptions, graph,
+                         counts=None):
+    """A pair member's rows deposited with the Vd of the bidirectional NH3 exchange.
+
+    The rows that :func:`dry_rows` builds as ``rows["nh3_exchange"]["moved"]`` under
+    ``pair_split = "all_gas"`` (the same stages, so the same cached results), asked
+    for on their own by a drawn gas/particle split of the ammonium pair
+    (:func:`workbench.analysis.pairlayer.moved_pieces`): a share of pNH4 taken as NH3
+    adds C vd_NH3_bidirectional to the net exchange, as the compensation point model
+    gives for that air concentration (its net flux is linear in the concentration,
+    :mod:`workbench.drydep.nh3_bidirectional`).
+
+    Parameters
+    ----------
+    air, met : workbench.graph.Node
+        The inputs, as for :func:`dry_rows` with a graph.
+    vel : dict
+        species -> Node of the filled Vd (with :data:`.dryvelocities.NH3_EXCHANGE`).
+    sites : list of str
+    member : str
+        The species whose samples are deposited (``"pNH4"``).
+    options : BudgetOptions
+    graph : workbench.graph.Graph
+
+    Returns
+    -------
+    tuple or None
+        (rows as of :func:`workbench.dryflux.deposition_rows` with ``site_index`` ...
+        [mol m-2], (c_valid, c_fill) the cumulative counts of modelled and filled hours
+        of the exchange's Vd); None without the exchange or the member in the air.
+    """
+    if not all(k in vel for k in NH3_EXCHANGE) or member not in air.value:
+        return None
+    run = functools.partial(graph.run, options={"budget": options}, counts=counts)
+    fill, first = vel["NH3_bidirectional"], next(iter(vel.values()))  # as in dry_rows
+    times_node = _graph.Node(_axes_node(run, first).key + ":times",
+                             first.value["vel"][0]["time"].values)
+    _, node = _member_rows(run, air, member, fill, _axes_node(run, fill), met, times_node,
+                           list(sites))
+    return node.value[0], (fill.value["c_valid"], fill.value["c_fill"])
+
+
 def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=None):
     """Deposition over every air-sampling period of every species (period-independent).
 
@@ -153,21 +212,15 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
 
     def axes_node(fill):       # the axes by their content (those of this call by fill)
         if fill.key not in axes:
-            d = run("vd_axes", deps={"fill": fill}).value
-            axes[fill.key] = _graph.Node("vd_axes:" + d, fill.value["vd"])
+            axes[fill.key] = _axes_node(run, fill)
         return axes[fill.key]
     times_node = _graph.Node(axes_node(next(iter(nodes.values()))).key + ":times", times)
     met_node = met
     prepared = run("air_basis", deps={"air": air})
 
     def one(air_node, sp, vd_sp):
-        content = run("air_content", deps={"air": air_node}, params={"species": sp})
-        air_c = _graph.Node("air_content:" + content.value, air_node.value)
-        inputs = run("flux_inputs", deps={"air": air_c, "axes": axes_node(nodes[vd_sp]),
-                                          "met": met_node},
-                     params={"species": sp, "sites": tuple(sites)})
-        return inputs, run("species_rows", deps={"inputs": inputs, "fill": nodes[vd_sp],
-                                                 "times": times_node})
+        return _member_rows(run, air_node, sp, nodes[vd_sp], axes_node(nodes[vd_sp]),
+                            met_node, times_node, sites)
 
     out = {"species": {}, "bracket": {}, "notes": [], "times": times,
            "receptors": any_vd["receptor"].values, "sites": sites, "vd_cum": {},

@@ -38,6 +38,7 @@ import xarray as xr
 from . import stages as _stages
 from .budget import COMPONENTS, BudgetOptions
 from .drycomponents import dry_components, dry_rows
+from .dryrows import exchange_member_rows
 from .graph import Graph, Node, content_digest, input_node, token
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
@@ -450,6 +451,23 @@ class Study:
         """Deposition over each air-sampling period (independent of reporting periods)."""
         return self._dry_rows_node(dry_options, budget_options, fixed_velocity, overrides,
                                    receptors).value
+
+    def exchange_rows(self, dry_options, budget_options, member, fixed_velocity=None,
+                      overrides=None, receptors=None):
+        """`member`'s rows deposited with the Vd of the bidirectional NH3 exchange and
+        that Vd's cumulative hour counts, or None without the exchange
+        (:func:`workbench.dryrows.exchange_member_rows`; stages of the graph)."""
+        if self.inputs.air is None or self.inputs.met is None:
+            return None
+        fixed_velocity = dict(fixed_velocity or {})
+        vel = self._velocity_nodes(dry_options, budget_options, fixed_velocity, overrides,
+                                   receptors)
+        if not vel:
+            return None
+        return exchange_member_rows(self._input("air", self.inputs.air), vel,
+                                    self._input("met", self.inputs.met),
+                                    list(self.catalogue(overrides).ids), member,
+                                    budget_options, self.graph, self.counts)
 
     def _dry_node(self, rows: Node, periods: Node) -> Node:
         """Dry components over `periods` from the rows (their shares are stages)."""

@@ -177,6 +177,16 @@ def validate(raw: dict, path=None, text: str = "", require_inputs: bool = True,
                                                  "or m/s? the key is in cm/s)")
         _check_names(section, given, path, lines)
         objects[section] = _check_option_section(section, cls, given, path, lines)
+    if "uncertainty" in objects and "dry" in objects:
+        from .analysis.uncertainty_options import pair_shift_refusal
+        refused = pair_shift_refusal(objects["dry"], objects["uncertainty"])
+        if refused is not None:
+            key = refused[0]
+            raise ScenarioError(refused[1], file=path, line=_line_of(lines, "uncertainty", key),
+                                column=f"uncertainty.{key}",
+                                value=list(objects["uncertainty"].pair_shift(key[11:])),
+                                expected="[0, 0] (the split as measured), or a fixed "
+                                "[dry] nh3_acid_ratio (nh3_acid_ratio_from_air = false)")
     site_over = raw.get("sites", {})
     for sid, table in site_over.items():
         if not isinstance(table, dict):

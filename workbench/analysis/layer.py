@@ -149,7 +149,12 @@ def linear_layer(result, study, which: str = "budget", overrides=None,
               for k, s in enumerate(sites)]
     if pair_shift:
         from .pairlayer import moved_pieces
+        # under the bidirectional NH3 exchange, pNH4 moved into NH3 takes its Vd
+        exchange = (study.exchange_rows(dry_opt, bud_opt, "pNH4", opts.get("fixed_velocity"),
+                                        overrides, receptors)
+                    if rows is not None and "nh3_exchange" in rows else None)
         for lay, moved in zip(layers, moved_pieces(rows, periods, sites, ds.sizes["receptor"],
-                                                   study.inputs.air, histories, _dry_layers)):
+                                                   study.inputs.air, histories, _dry_layers,
+                                                   exchange)):
             lay.pair_moved = moved
     return LinearLayer(ds, layers, period_years(periods), wet_component, tracer)

@@ -24,7 +24,7 @@ from .noise import site_noise
 from .pairnoise import with_pair_shift
 from .quantile_tables import QUANTILES, TOTALS
 from .sitedraws import component_draws, totals_of
-from .uncertainty_options import UncertaintyOptions
+from .uncertainty_options import UncertaintyOptions, pair_shift_refusal
 
 
 @dataclass
@@ -127,6 +127,10 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
     """
     if options.draws < 1:
         raise ValueError("UncertaintyOptions.draws must be >= 1 for a Monte Carlo")
+    refused = pair_shift_refusal(result.options.get("dry"), options)
+    if refused is not None:
+        raise ValueError(f"UncertaintyOptions.{refused[0]}: {refused[1]}; use a fixed "
+                         "nh3_acid_ratio or leave the split as measured ([0, 0])")
     if layers is None:
         shift = options.shifts_pairs          # the rows a drawn gas/particle split moves
         layers = ({} if years_only else

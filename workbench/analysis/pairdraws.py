@@ -21,7 +21,16 @@ component_rows`); each moved sample keeps its own analytical errors (its
 member's, by its identity), the moved part takes the Vd factor and the fill error of
 the Vd it is deposited with.  Both members are in mol of N (one N atom each).  The
 shift is applied where both members of the pair have a deposition at the site and
-period; elsewhere the components stay as drawn without it.
+period; elsewhere the components stay as drawn without it.  A draw whose share is 0
+in every year keeps its draws bit for bit.
+
+Under ``[dry] nh3_treatment = "bidirectional"`` the NH3 component is the net exchange
+:math:`F = \\chi_a V_d - E` of the compensation point model, linear in the air
+concentration :math:`\\chi_a` for a fixed canopy state (:math:`V_d` and :math:`E`
+do not depend on it, :mod:`workbench.drydep.nh3_bidirectional`).  So the pNH4 moved
+into NH3 (:math:`A^{p \\to g}_n`) is deposited with the exchange's :math:`V_d`
+(:func:`.pairlayer.moved_pieces`) and adds no emission; the NH3 moved out scales the
+deposition part of its rows only (:func:`workbench.analysis.drydraws.nh3_net_draws`).
 
 The shares are drawn in :mod:`.pairnoise`, the moved rows built in :mod:`.pairlayer`.
 Units: deposition [mol m-2], shares and factors [1].
@@ -90,10 +99,13 @@ def apply_pair_shift(layer, site, noise, year0, out, draw):
             add[into] = (dry_ratio(mv, noise.vd[:, yi, k], a_mv, ps.fill[into], cf)
                          * mv.contrib.sum(0).T[None])
         both = np.isfinite(point[..., index[gas]]) & np.isfinite(point[..., index[part]])
+        # a draw whose share is 0 in every year keeps its draws as they were, bit for bit
+        # (the moved part at a share of 0 sums to 0 only to within rounding)
+        moves = (ps.share != 0).any(axis=1)[:, None, None] & both[None]
         for sp in (gas, part):
             if sp not in kept and sp not in add:
                 continue
             j = index[sp]
             v = kept.get(sp, out[..., j]) + add.get(sp, 0.0)
-            out[..., j] = np.where(both[None], v, out[..., j])
+            out[..., j] = np.where(moves, v, out[..., j])
     return out

@@ -1,6 +1,7 @@
 """The rows a drawn gas/particle split moves (``[uncertainty] pair_shift_<pair>``):
 each pair member's samples deposited with the other member's Vd, taken from the
-bracket's rows (:mod:`.pairdraws` applies them).
+bracket's rows (:mod:`.pairdraws` applies them); under ``[dry] nh3_treatment =
+"bidirectional"`` pNH4 moved into NH3 is deposited with the Vd of the net exchange.
 
 Units: deposition [mol m-2 of N].
 """
@@ -10,7 +11,8 @@ from ..budget import PAIRS
 from ..budgetstatus import bracket_velocities
 
 
-def moved_pieces(rows, periods, sites, n_r, air, histories, dry_layers) -> list:
+def moved_pieces(rows, periods, sites, n_r, air, histories, dry_layers,
+                 exchange=None) -> list:
     """The other member's rows at the Vd of each member, per site.
 
     Parameters
@@ -21,6 +23,15 @@ def moved_pieces(rows, periods, sites, n_r, air, histories, dry_layers) -> list:
         As for :func:`workbench.analysis.layer._dry_layers`.
     dry_layers : callable
         That function (passed: the layer imports this module).
+    exchange : tuple, optional
+        Under the bidirectional NH3 exchange (``rows["nh3_exchange"]``): the pNH4 rows
+        deposited with the exchange's Vd and that Vd's cumulative hour counts
+        (:meth:`workbench.pipeline.Study.exchange_rows`).  They replace the bracket's
+        pNH4 rows at the deposition-only NH3 Vd: the net flux of the compensation
+        point model is linear in the air concentration, F = chi_a V_d - E with V_d
+        and E set by the canopy alone (:mod:`workbench.drydep.nh3_bidirectional`), so
+        NH3 raised by a share s of pNH4 adds s C V_d over each pNH4 sample and leaves
+        E as it was.
 
     Returns
     -------
@@ -44,6 +55,12 @@ def moved_pieces(rows, periods, sites, n_r, air, histories, dry_layers) -> list:
                 continue
             sub = {k: v for k, v in rows.items() if k != "nh3_exchange"}
             sub.update(split={}, species={into: r})
+            if into == "NH3" and "nh3_exchange" in rows:
+                if exchange is None:
+                    raise ValueError("a drawn share of pNH4 moved into the bidirectional "
+                                     "NH3 exchange needs its rows at the exchange's Vd")
+                sub.update(species={into: exchange[0]},
+                           vd_cum={**rows["vd_cum"], into: exchange[1]})
             for k, lay in enumerate(dry_layers(sub, periods, sites, n_r, air, histories)):
                 p = lay.get(into)
                 if p is not None:

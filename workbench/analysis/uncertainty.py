@@ -78,7 +78,8 @@ from .quantile_tables import (QUANTILES, SUFFIXES, TOTALS, quantile_table,  # no
 from .sitedraws import component_draws, totals_of  # noqa: F401
 # the options (defined here before)
 from .uncertainty_options import (DEFAULT_NH3_GAMMA_GSD, DEFAULT_VD_GSD,  # noqa: F401
-                                  SYSTEMATIC_ERRORS, UncertaintyOptions)
+                                  SYSTEMATIC_ERRORS, UncertaintyOptions,
+                                  pair_shift_refusal)
 # the wet side of a draw (wet_ratios, _gauge_by_piece were defined here before)
 from .wetdraws import _gauge_by_piece, _safe_ratio, wet_ratios  # noqa: F401
 

@@ -165,10 +165,13 @@ class UncertaintyOptions:
         gas/particle split of a filter pack".
     pair_shift_ammonium : tuple
         The same for the ammonium pair: s > 0 a share of the measured pNH4 that was NH3
-        (deposited with the NH3 Vd: under ``nh3_treatment = "bidirectional"`` the
-        deposition-only scheme's, as the bracket), s < 0 a share of the measured NH3
-        that was pNH4; drawn apart from the nitrate's (its own stream).  [0, 0]
-        (default) switches it off.
+        (deposited with the NH3 Vd: under ``nh3_treatment = "bidirectional"`` the Vd
+        of the net exchange, whose net flux is linear in the air concentration), s < 0
+        a share of the measured NH3 that was pNH4 (under ``"bidirectional"`` taken
+        from the deposition part of the net exchange, its emission part kept); drawn
+        apart from the nitrate's (its own stream).  [0, 0] (default) switches it off.
+        Under ``"bidirectional"`` with ``nh3_acid_ratio_from_air`` a drawn share of
+        either pair is refused (:func:`pair_shift_refusal`).
     """
 
     draws: int = 0
@@ -279,3 +282,37 @@ def _shift_range(name, value) -> tuple:
             "high <= 1: the share of the measured particle that was gas (> 0) or of the "
             "measured gas that was particle (< 0); [0, 0] switches it off")
     return (lo + 0.0, hi + 0.0)                 # -0.0 -> 0.0
+
+
+def pair_shift_refusal(dry_options, options) -> tuple | None:
+    """``(key, reason)`` of a drawn gas/particle split that the run's dry model cannot
+    take exactly, or None.
+
+    The draws move a share of a pair on the linear layer: the velocities stay those of
+    the measured air.  That is exact while no velocity depends on the air, and under
+    ``[dry] nh3_treatment = "bidirectional"`` the net NH3 flux is then linear in the
+    NH3 concentration (:mod:`workbench.drydep.nh3_bidirectional`).  With
+    ``nh3_acid_ratio_from_air`` the exchange's cuticle takes the acid ratio
+    (2 SO2 + HNO3)/NH3 of the air in each hour: moving NH3 or HNO3 changes its Vd and
+    its emission term, which only a run of the model on the changed air gives.
+
+    Parameters
+    ----------
+    dry_options : workbench.drydep.DryOptions
+    options : UncertaintyOptions
+
+    Returns
+    -------
+    tuple or None
+        The first ``pair_shift_<pair>`` key drawn and the reason, in words.
+    """
+    drawn = [p for p in PAIR_SHIFT_PAIRS if options.pair_shift(p) != (0.0, 0.0)]
+    if (not drawn or getattr(dry_options, "nh3_treatment", None) != "bidirectional"
+            or not getattr(dry_options, "nh3_acid_ratio_from_air", False)):
+        return None
+    return (f"pair_shift_{drawn[0]}",
+            "a drawn gas/particle split cannot be exact under [dry] nh3_treatment = "
+            "\"bidirectional\" with nh3_acid_ratio_from_air = true: the NH3 exchange's "
+            "cuticle takes the acid ratio (2 SO2 + HNO3)/NH3 of the air, so moving NH3 or "
+            "HNO3 changes its Vd and emission, which the draws (on the velocities of the "
+            "measured air) cannot follow")
