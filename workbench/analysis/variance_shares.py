@@ -28,6 +28,7 @@ import dataclasses
 import numpy as np
 import pandas as pd
 
+from ..budget_components import COMPONENTS
 from ..units import element_deposition_in
 from .layer import DRY_SPECIES, linear_layer
 from .montecarlo import _span_draws
@@ -57,6 +58,9 @@ FACTORS = {
     **{f"pair_shift_{p}": (0.0, 0.0) for p in PAIR_SHIFT_PAIRS},
 }
 
+#: The element (S or N) of each dry species.
+_ELEMENT = {c[2]: c[0] for c in COMPONENTS if c[1] == "dry"}
+
 #: The columns of :func:`variance_shares`' table.
 COLUMNS = ("site", "receptor", "period", "total", "factor", "part_of", "variance_share",
            "log_variance_share", "alone_p05", "alone_p50", "alone_p95", "unit")
@@ -69,9 +73,10 @@ def _neutral(opt: UncertaintyOptions) -> dict:
     return out
 
 
-def _drawn(opt: UncertaintyOptions) -> list:
+def _drawn(opt: UncertaintyOptions, elements=("S", "N")) -> list:
     """``(name, part_of, overrides)`` of each factor `opt` draws: the overrides switch
-    on that factor alone over :func:`_neutral`."""
+    on that factor alone over :func:`_neutral`; the Vd species' parts of the species of
+    `elements` only."""
     neutral = _neutral(opt)
     out = []
     for name in FACTORS:
@@ -81,7 +86,7 @@ def _drawn(opt: UncertaintyOptions) -> list:
         out.append((name, "", {name: value}))
         if name == "vd_gsd":
             out += [(f"vd_gsd.{sp}", "vd_gsd", {"vd_gsd": {**neutral["vd_gsd"], sp: opt.gsd(sp)}})
-                    for sp in DRY_SPECIES if opt.gsd(sp) > 1.0]
+                    for sp in DRY_SPECIES if opt.gsd(sp) > 1.0 and _ELEMENT[sp] in elements]
     return out
 
 
@@ -214,7 +219,7 @@ def variance_shares(result, study, options: UncertaintyOptions, which: str = "sp
     if missing:
         raise ValueError(f"variance_shares: site {missing[0]!r} is not in the run")
     neutral = _neutral(options)
-    factors = _drawn(options)
+    factors = _drawn(options, {t[0] for t in totals})
     ti = [TOTALS.index(t) for t in totals]
     periods = ["span"] if which == "span" else [str(p) for p in ds["period"].values]
     unit = "kg ha-1 yr-1" if which == "span" else "kg ha-1"
@@ -222,13 +227,16 @@ def variance_shares(result, study, options: UncertaintyOptions, which: str = "sp
     frames = []
     for site in wanted:
         k = names.index(site)
+        # a species the site does not sample has no part of its own
+        here = [f for f in factors if f[1] != "vd_gsd"
+                or f[0].split(".", 1)[1] in layer.sites[k].dry]
         full = _totals(layer, k, options, n_years, year0, which, shift)[..., ti]
         still = _totals(layer, k, dataclasses.replace(options, **neutral), n_years, year0,
                         which, shift)
         alone = {name: _totals(layer, k, dataclasses.replace(options, **{**neutral, **on}),
                                n_years, year0, which, shift, still)[..., ti]
-                 for name, _, on in factors}
-        part_of = {name: p for name, p, _ in factors}
+                 for name, _, on in here}
+        part_of = {name: p for name, p, _ in here}
         main = [n for n in alone if not part_of[n]]
         lin, rest = first_order_shares(full, alone)
         lg, rest_lg = first_order_shares(full, alone, log=True)
