@@ -208,3 +208,19 @@ def test_demo_farm_dry_n_width_is_the_nh3_vd_factor_applied_once(farm):
     # what the analyses, the gauge and the fills add is below 1 % each
     small = main.drop(index=["vd_gsd", "vd_site_gsd", "together"])
     assert (small["log_variance_share"].fillna(0) < 0.01).all()
+
+
+def test_demo_farm_drawn_gas_particle_split_is_a_factor(farm):
+    """A drawn gas/particle split (pair_shift_<pair>) is a factor of its own: its
+    share is that of its draws alone, between 0 and 1."""
+    study, res = farm
+    opt = UncertaintyOptions(draws=300, pair_shift_ammonium=(-0.2, 0.2))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        df = variance_shares(res, study, opt, sites=["farm"], totals=("N_dry",))
+    row = df[df["receptor"] == "grass"].set_index("factor")
+    share = row.loc["pair_shift_ammonium", "variance_share"]
+    assert 0 < share < 1
+    assert row.loc["pair_shift_ammonium", "alone_p05"] < row.loc["pair_shift_ammonium",
+                                                                 "alone_p95"]
+    assert "pair_shift_nitrate" not in row.index
