@@ -15,6 +15,9 @@ Printed, as median and best wall-clock times [ms]:
 * with ``--sobol``: the Sobol analysis (:func:`workbench.analysis.sensitivity.sobol`)
   of the site-year with the default ``[sensitivity]`` factors (10 linear factors,
   N = 64), once, split into the model evaluations and SALib's analysis;
+* with ``--shares``: each drawn factor's share of the variance of the span's totals
+  at the site (:func:`workbench.analysis.variance_shares.variance_shares`: the site's
+  draws again with each factor alone), once, on the whole run's years;
 * with ``--engine``: the same with two engine factors added (``wetness_rule`` over
   three rules, ``fine_fraction_pNO3`` 0.2-0.8), N = 16, on a study of the site alone
   (as ``workbench sensitivity`` with ``sites`` and the Sobol explorer do).
@@ -57,6 +60,8 @@ def main(argv=None):
     ap.add_argument("--sobol", action="store_true", help="also time the Sobol analysis")
     ap.add_argument("--band", action="store_true",
                     help="also time the range on the site explorer's budget bars")
+    ap.add_argument("--shares", action="store_true",
+                    help="also time the variance shares of the site's span totals")
     ap.add_argument("--engine", action="store_true",
                     help="also time a Sobol analysis with two engine factors")
     args = ap.parse_args(argv)
@@ -132,6 +137,19 @@ def main(argv=None):
               f"{t_all:.2f} s, of which the model evaluations {t_eval:.2f} s "
               f"({t_all / 60:.2f} x the 1 minute goal)")
         out.update({"sobol_s": t_all, "sobol_evaluations_s": t_eval})
+    if args.shares:
+        import os
+
+        from workbench.analysis.variance_shares import variance_shares
+        full = study.run(sc.options["wet"], sc.options["dry"], sc.options["budget"],
+                         sc.fixed_velocity, "year")
+        ylayer = U.linear_layer(full, study, "years")
+        t_mc = _times(lambda: U.monte_carlo(full, study, opt, {"years": ylayer}), 1)[0]
+        t_sh = _times(lambda: variance_shares(full, study, opt, sites=[args.site],
+                                              layer=ylayer), 1)[0]
+        print(f"  shares of {args.site}'s span totals: {t_sh:.2f} s; the Monte Carlo of "
+              f"the whole run's years {t_mc:.2f} s (load {os.getloadavg()[0]:.1f})")
+        out.update({"shares_s": t_sh, "monte_carlo_years_s": t_mc})
     if args.engine:
         from workbench.analysis import sensitivity as S
         factors = {**sc.options["sensitivity"].factors,

@@ -164,6 +164,16 @@ def test_uncertainty_benchmark_times_a_site_year(scenario, capsys):
     assert "1,000 draws of the site-year" in capsys.readouterr().out
 
 
+def test_uncertainty_benchmark_times_the_variance_shares(scenario, capsys):
+    bench = _load("uncertainty")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        out = bench.main(["--scenario", str(scenario), "--site", "ridge", "--year", "2021",
+                          "--draws", "20", "--repeat", "1", "--shares"])
+    assert {"shares_s", "monte_carlo_years_s"} <= set(out)
+    assert "shares of ridge's span totals" in capsys.readouterr().out
+
+
 def test_same_run_masks_stamps_and_ids_only(tmp_path, capsys):
     """Two run folders that differ only by a time stamp and a plotly id are the same;
     a changed digit, or a file on one side only, is found."""
