@@ -129,7 +129,7 @@ SOURCE_WORDS = re.compile(
     r"numerical device|measured:", re.I)
 #: Modules whose module-level numeric constants are physical or empirical values and
 #: thresholds (QA, completeness, plausibility, clock checks, uncertainty).  Not here:
-#: the gas schemes' tables (wesely1989.py, zhang2003.py), sourced by their section
+#: the gas schemes' tables (wesely1989_table.py, zhang2003.py), sourced by their section
 #: headers and equation numbers and checked against the papers in tests/drydep, and
 #: modules of technical constants only (block and chunk sizes, unit factors).
 CONSTANT_MODULES = (
