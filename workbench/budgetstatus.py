@@ -298,5 +298,3 @@ def wet_outputs(w: xr.Dataset):
                             "concentration (nss: non-sea-salt)"}),
     }
     return out, ions
-
-

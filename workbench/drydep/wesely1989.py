@@ -177,4 +177,3 @@ def surface_resistances(gases, state) -> dict:
         if gas == "SO2" and state.nh3_so2_ratio is not None:
             out[gas]["codeposition_used"] = codep
     return out
-
