@@ -145,6 +145,7 @@ CONSTANT_MODULES = (
     "workbench/drydep/options.py", "workbench/drydep/particle_fractions.py",
     "workbench/drydep/codeposition.py",
     "workbench/analysis/trends_stats.py", "workbench/analysis/exceedance.py",
+    "workbench/analysis/exceedance_function.py", "workbench/analysis/exceedance_draws.py",
     "workbench/analysis/uncertainty_options.py", "workbench/analysis/sensitivity_options.py")
 
 
