@@ -4,13 +4,8 @@ equations, with the look-up of the table for receptors and hours.
 Part of :mod:`workbench.drydep.wesely1989` (which re-exports every name here); the
 resistances of each path are in :mod:`workbench.drydep.wesely1989_paths`.
 
-References
-----------
-Wesely, M. L. (1989), Parameterization of surface resistances to gaseous dry
-deposition in regional-scale numerical models, Atmos. Environ. 23, 1293-1304,
-Eqs. (2)-(9) and Table 1 (land use x seasonal category).
-Walmsley, J. L. and Wesely, M. L. (1996), Modification of coded parametrizations of
-surface resistances to gaseous dry deposition, Atmos. Environ. 30, 1181-1188.
+References: those of :mod:`workbench.drydep.wesely1989` (Wesely 1989, Atmos. Environ.
+23, Table 1 and Eqs. (2)-(9); Walmsley and Wesely 1996, Atmos. Environ. 30).
 
 Every table value below is recalled from memory of Wesely's Table 1 (as also
 reprinted in Seinfeld and Pandis 2006, Table 19.2); 9999 there means "no such
