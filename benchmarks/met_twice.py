@@ -7,10 +7,11 @@ the chunked reader dropped exact repeats itself.
 The demo's ``met.csv.gz`` (invented network) is written into a temporary folder with
 its data lines a second time after the last (``--copies 2``), gzipped.  Each read is
 :func:`workbench.io.met.read_met` in a fresh Python process with the package of one
-checkout (``--roots``, each put first on ``PYTHONPATH``), which reports its wall time
-and CPU time (the read alone), its peak resident memory (``VmHWM``) and the peak of the
-allocations traced by ``tracemalloc`` (numpy's and pandas' included; tracing slows the
-read, so it is a second read of its own), and whether the chunked reader kept the file.
+checkout (``--roots``, each put first on ``PYTHONPATH``; ``met_read_child.py``),
+which reports its wall time and CPU time (the read alone), its peak resident memory
+(``VmHWM``) and the peak of the allocations traced by ``tracemalloc`` (numpy's and
+pandas' included; tracing slows the read, so it is a second read of its own), and
+whether the chunked reader kept the file.
 The reads alternate between the checkouts, ``--repeat`` times each.  Nothing is
 asserted; numbers go into docs/performance.md.
 """
@@ -18,45 +19,14 @@ from __future__ import annotations
 
 import argparse
 import gzip
-import json
 import os
-import subprocess
 import sys
 import tempfile
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
-
-_CHILD = r"""
-import json, resource, sys, time, tracemalloc
-import workbench.io.metfast as metfast
-from workbench.io.met import read_met
-from workbench.io.sites import read_sites
-cat = read_sites(sys.argv[2])
-fast = []
-orig = metfast.read_met_csv_fast
-def spy(*a, **k):
-    got = orig(*a, **k)
-    fast.append(got is not None)
-    return got
-metfast.read_met_csv_fast = spy
-if sys.argv[3] == "traced":
-    tracemalloc.start()
-    ds, ledger = read_met(sys.argv[1], cat)
-    peak = tracemalloc.get_traced_memory()[1]
-    tracemalloc.stop()
-    print(json.dumps({"traced_mb": peak / 2**20, "fast": fast[0]}))
-    raise SystemExit
-r0, t0 = resource.getrusage(resource.RUSAGE_SELF), time.perf_counter()
-ds, ledger = read_met(sys.argv[1], cat)
-wall = time.perf_counter() - t0
-r1 = resource.getrusage(resource.RUSAGE_SELF)
-cpu = (r1.ru_utime - r0.ru_utime) + (r1.ru_stime - r0.ru_stime)
-hwm = next(int(ln.split()[1]) for ln in open("/proc/self/status") if ln.startswith("VmHWM"))
-print(json.dumps({"wall": wall, "cpu": cpu, "peak_mb": hwm / 1024, "rows": ledger.rows(),
-                  "fast": fast[0]}))
-"""
-
+sys.path.insert(0, str(ROOT / "benchmarks"))
+from met_read_child import read_once  # noqa: E402  (one read in a child process)
 
 def write_twice(folder, copies=2):
     """The demo met with its data lines `copies` times, gzipped; its path."""
@@ -70,15 +40,6 @@ def write_twice(folder, copies=2):
         for _ in range(copies - 1):
             g.writelines(lines[head:])
     return out
-
-
-def read_once(root, met, sites, mode):
-    env = dict(os.environ, PYTHONPATH=str(Path(root).resolve()))
-    # run from the file's folder: ``python -c`` puts the working folder first on sys.path
-    out = subprocess.run([sys.executable, "-c", _CHILD, str(met), str(sites), mode],
-                         env=env, capture_output=True, text=True, check=True,
-                         cwd=str(Path(met).parent))
-    return json.loads(out.stdout.strip().splitlines()[-1])
 
 
 def main(argv=None):
@@ -96,9 +57,9 @@ def main(argv=None):
         got = {r: [] for r in args.roots}
         for _ in range(args.repeat):
             for r in args.roots:
-                got[r].append(read_once(r, met, sites, "timed"))
+                got[r].append(read_once(r, met, sites, spy=True))
         for r in args.roots:
-            traced = read_once(r, met, sites, "traced")
+            traced = read_once(r, met, sites, traced=True, spy=True)
             best = min(got[r], key=lambda x: x["cpu"])
             print(f"{r}: chunked reader {'kept' if best['fast'] else 'handed over'}; "
                   f"wall {min(x['wall'] for x in got[r]):.2f} s, cpu {best['cpu']:.2f} s, "

@@ -11,47 +11,29 @@ a third time, with a blank on each side of every comma; with ``--notes`` plainly
 quoted column of text holding a comma; with ``--numbered`` plainly with station numbers
 ``0001``, ``0002``... as site ids, in a catalogue of its own).  Each read is
 :func:`workbench.io.met.read_met` in a fresh Python process with the package of one
-checkout (``--roots``, each put first on ``PYTHONPATH``), which reports its wall time
-(the read alone), its CPU time (user + system of all its threads, the read alone) and
-its peak resident memory (``VmHWM``).  The reads alternate between the checkouts,
-``--repeat`` times each.  Nothing is asserted; on a shared machine compare the CPU
+checkout (``--roots``, each put first on ``PYTHONPATH``; ``met_read_child.py``),
+which reports its wall time (the read alone), its CPU time (user + system of all its
+threads, the read alone) and its peak resident memory (``VmHWM``).  The reads alternate
+between the checkouts, ``--repeat`` times each.  Nothing is asserted; on a shared machine compare the CPU
 times and the peaks, and print the load.
 """
 from __future__ import annotations
 
 import argparse
 import gzip
-import json
 import os
-import subprocess
 import sys
 import tempfile
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
-
-_CHILD = r"""
-import json, resource, sys, time
-from workbench.io.met import read_met
-from workbench.io.sites import read_sites
-cat = read_sites(sys.argv[2])
-r0, t0 = resource.getrusage(resource.RUSAGE_SELF), time.perf_counter()
-ds, ledger = read_met(sys.argv[1], cat)
-wall = time.perf_counter() - t0
-r1 = resource.getrusage(resource.RUSAGE_SELF)
-cpu = (r1.ru_utime - r0.ru_utime) + (r1.ru_stime - r0.ru_stime)
-hwm = next(int(ln.split()[1]) for ln in open("/proc/self/status") if ln.startswith("VmHWM"))
-import workbench
-print(json.dumps({"wall": wall, "cpu": cpu, "peak_mb": hwm / 1024, "rows": ledger.rows(),
-                  "sites": int(ds.sizes["site"]), "package": workbench.__file__}))
-"""
-
+sys.path.insert(0, str(ROOT / "benchmarks"))
+from met_read_child import read_once  # noqa: E402  (one read in a child process)
 
 def write_inputs(folder, site_years):
     """(sites.toml, plain met.csv.gz, quoted CRLF met.csv.gz, padded met.csv.gz, noted
     met.csv.gz) of `site_years` (padded: a blank on each side of every comma, ``3.2 ,
     4.1``; noted: a last column ``notes`` of quoted text with a comma in every row)."""
-    sys.path.insert(0, str(ROOT / "benchmarks"))
     from network import make_network
     make_network(folder, site_years // 2, years=2)
     plain = Path(folder) / "met.csv.gz"
@@ -92,17 +74,6 @@ def write_numbered(folder, sites, plain):
             site, sep, rest = ln.partition(",")
             out.write((new.get(site, site) + sep + rest) if sep else ln)
     return out_sites, out_met
-
-
-def read_once(root, met, sites):
-    env = dict(os.environ, PYTHONPATH=str(root))
-    # run from the root: ``python -c`` puts the working folder first on sys.path
-    out = subprocess.run([sys.executable, "-c", _CHILD, str(met), str(sites)], env=env,
-                         capture_output=True, text=True, check=True, cwd=str(root))
-    got = json.loads(out.stdout.strip().splitlines()[-1])
-    if not Path(got["package"]).resolve().is_relative_to(Path(root).resolve()):
-        raise SystemExit(f"the read for {root} imported {got['package']}")
-    return got
 
 
 def _load():

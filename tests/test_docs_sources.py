@@ -129,7 +129,7 @@ SOURCE_WORDS = re.compile(
     r"numerical device|measured:", re.I)
 #: Modules whose module-level numeric constants are physical or empirical values and
 #: thresholds (QA, completeness, plausibility, clock checks, uncertainty).  Not here:
-#: the gas schemes' tables (wesely1989.py, zhang2003.py), sourced by their section
+#: the gas schemes' tables (wesely1989_table.py, zhang2003.py), sourced by their section
 #: headers and equation numbers and checked against the papers in tests/drydep, and
 #: modules of technical constants only (block and chunk sizes, unit factors).
 CONSTANT_MODULES = (
@@ -139,11 +139,13 @@ CONSTANT_MODULES = (
     "workbench/surface/aerodynamic.py", "workbench/surface/roughness.py",
     "workbench/wet/options.py", "workbench/wet/qa.py", "workbench/wet/carbonate.py",
     "workbench/wet/seasalt.py", "workbench/wet/screening.py", "workbench/wet/unitslip.py",
-    "workbench/io/metclock.py", "workbench/io/metchecks.py", "workbench/io/plausible.py",
+    "workbench/io/metclock.py", "workbench/io/metchecks.py", "workbench/io/metlimits.py",
+    "workbench/io/metgaps.py", "workbench/io/metgauge.py", "workbench/io/plausible.py",
     "workbench/io/airslip.py", "workbench/io/samplegaps.py",
     "workbench/drydep/options.py", "workbench/drydep/particle_fractions.py",
     "workbench/drydep/codeposition.py",
     "workbench/analysis/trends_stats.py", "workbench/analysis/exceedance.py",
+    "workbench/analysis/exceedance_function.py", "workbench/analysis/exceedance_draws.py",
     "workbench/analysis/uncertainty_options.py", "workbench/analysis/sensitivity_options.py")
 
 

@@ -7,6 +7,13 @@ air density for a mixing ratio, no valid value of a wet ion), ``flagged`` when i
 fails completeness or holds something to read with care (kept flagged samples, a
 sulfate basis that fell back, a clipped non-sea-salt value), and the reason is
 written in words (the ``note`` column of budget.csv).
+
+Where the parts are: the notes (:func:`join_notes`, :func:`split_notes`,
+:func:`sampling_gap_note`) in :mod:`workbench.budgetstatus_notes`; the dry components,
+the net NH3 and the pair brackets (:func:`dry_status`, :func:`nh3_net_component`,
+:func:`bracket_outputs`...) in :mod:`workbench.budgetstatus_dry`.  The wet components
+are here (:func:`wet_component` looks :func:`wet_mean_status` up in this module); it
+re-exports the others, so that ``workbench.budgetstatus.<name>`` keeps working.
 """
 from __future__ import annotations
 
@@ -16,148 +23,16 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .wet.qa import exceeds, falls_short
+from .wet.qa import falls_short
 from .wet.seasalt import total_in_place
-
-#: The start of the note of a site that measures no pNa at all: its total pSO4 stands
-#: for the non-sea-salt part on one basis over the whole record, said but not flagged
-#: (the budget flags only weeks without pNa among weeks with it; docs/budget.md;
-#: written by :func:`workbench.drycomponents.total_used_notes`).
-NO_PNA_AT_SITE = "no pNa measured at the site"
-
-
-def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
-                options):
-    """Status, completeness failure and reason of a dry component.
-
-    Parameters
-    ----------
-    coverage, vd_cov, filled_share, flux_cov : ndarray
-        Share of the period's hours with a concentration, with a modelled Vd, with
-        a filled Vd, and in sampling periods whose flux is known [1].
-    measured, season_ok : ndarray of bool
-    ratio : bool
-        The species is given as a mixing ratio (needs the molar density of air).
-    options : BudgetOptions
-
-    Returns
-    -------
-    status : ndarray of str
-    fails : ndarray of bool
-        A present component fails completeness (status ``flagged``).
-    note : ndarray of str
-        Why a component is missing or flagged ('' otherwise).
-    """
-    vd_any = np.nan_to_num(vd_cov) + np.nan_to_num(filled_share)
-    # a share equal to its bound (to rounding) is inside it: 10 % filled is not "more
-    # than 10 %" although 1 - 0.9 is 0.09999999999999998 (workbench.wet.qa)
-    low_flux = falls_short(flux_cov, options.min_air_coverage)
-    fails = falls_short(coverage, options.min_air_coverage) | ~season_ok | low_flux
-    status = np.full(coverage.shape, "complete", dtype=object)
-    status = np.where(exceeds(filled_share, 1 - options.min_vd_coverage), "filled", status)
-    status = np.where(fails, "flagged", status)
-    note = np.full(coverage.shape, "", dtype=object)
-    note = np.where(low_flux & (flux_cov > 0) & (flux_cov < coverage),
-                    "flux known for part of the sampled hours only (Vd or air density "
-                    "missing in the others)", note)
-    note = np.where(~season_ok & (coverage > 0), "a season without concentrations", note)
-    no_vd = vd_any <= 0
-    why_none = np.where(no_vd, "no deposition velocity for any hour of the period (check the "
-                        "met record and the site's roughness and heights)",
-                        "no molar density of air (temperature or pressure) in the sampled "
-                        "hours: the mixing ratio cannot become a flux" if ratio else
-                        "no hour with both a concentration and a deposition velocity")
-    gone = (coverage > 0) & ~(flux_cov > 0)
-    note = np.where(gone, why_none, note)
-    note = np.where(~(coverage > 0), "no concentration in the period", note)
-    note = np.where(measured, note, "not measured at the site (no valid concentration)")
-    missing = ~measured | ~(coverage > 0) | gone | ~np.isfinite(vd_cov)
-    status = np.where(missing, "missing", status)
-    return status, fails & ~missing, note
-
-
-def split_notes(text) -> list:
-    """The parts of a '; '-joined note (:func:`join_notes`), split only outside
-    parentheses: a part may hold "; " inside its own parenthesis ("... (sea salt
-    included, an upper bound; small inland)"), and a split there cut it in two, the
-    second half then read as a part of its own ("every year used: pSO4: small inland)").
-
-    >>> split_notes("a (b; c); d")
-    ['a (b; c)', 'd']
-    >>> split_notes("")
-    []
-    """
-    text = str(text)
-    parts, depth, start = [], 0, 0
-    for i, ch in enumerate(text):            # over a note's characters, never over hours
-        if ch == "(":
-            depth += 1
-        elif ch == ")":
-            depth = max(depth - 1, 0)
-        elif ch == ";" and depth == 0 and text.startswith("; ", i):
-            parts.append(text[start:i])
-            start = i + 2
-    parts.append(text[start:])
-    return [p for p in parts if p.strip()]
-
-
-def join_notes(acc, text):
-    """Append `text` to the '; '-joined notes in `acc` (ndarray of str or str); an empty
-    `text` (scalar or element) leaves `acc` as it is."""
-    acc = np.asarray(acc, dtype=object)
-    acc = np.where(pd.isna(acc), "", acc)
-    text = np.asarray(text, dtype=object)
-    return np.where(text == "", acc, np.where(acc == "", text, acc + "; " + text)).astype(object)
-
-
-#: The shortest stretch of a period without samples that a budget row notes [h]: a
-#: week, the usual sample (our choice; a weekly sample across the edge of the record's
-#: first year leaves less).
-SAMPLING_GAP_NOTE_H = 168.0
-#: Hours of a week, the unit the note counts a gap in [h].
-HOURS_PER_WEEK = 168.0
-
-
-def sampling_gap_note(note, status, coverage, hours, role):
-    """Add to a component's note the hours of its period without a usable sample.
-
-    A gap within the completeness thresholds keeps a component ``complete`` (the covered
-    weeks stand for the period): the note says it where the number is read, e.g. ``air:
-    10 weeks without a usable sample (80.8 % of the period's hours covered)``.  Written
-    for a component that is not ``missing`` with at least :data:`SAMPLING_GAP_NOTE_H`
-    hours of its period not covered: no sample (a sampler out of service) or only
-    samples left out (a lost sample; input_rows.csv says why).  The coverage is the
-    budget's own (``air_coverage``; ``wet_coverage_fraction``, where dry and trace weeks
-    count as covered).
-
-    Parameters
-    ----------
-    note, status : ndarray of str
-        The component's note and status (any shape, the period axis among them).
-    coverage : ndarray
-        Share of the period's hours covered [1] (NaN: not applicable), as `note`.
-    hours : ndarray
-        Hours of the periods [h], broadcastable to `coverage`.
-    role : str
-        ``air`` or ``precipitation``: the word the note opens with.
-
-    Returns
-    -------
-    ndarray of str
-    """
-    cov = np.asarray(coverage, float)
-    note = np.array(np.broadcast_to(np.asarray(note, dtype=object), cov.shape))
-    gap = (1.0 - cov) * np.broadcast_to(np.asarray(hours, float), cov.shape)      # [h]
-    show = np.flatnonzero((np.isfinite(cov) & (cov > 0) & (status != "missing")
-                           & (gap >= SAMPLING_GAP_NOTE_H - 1e-6)).ravel())
-    flat, flat_gap, flat_cov = note.reshape(-1), gap.reshape(-1), cov.reshape(-1)
-    weeks = [round(float(g) / HOURS_PER_WEEK, 1) for g in flat_gap[show]]
-    text = np.array([f"{role}: {w:g} week{'' if w == 1 else 's'} without a usable sample "
-                     f"({100 * c:.1f} % of the period's hours covered)"
-                     for w, c in zip(weeks, flat_cov[show])], dtype=object)
-    flat[show] = join_notes(flat[show], text)     # the few rows with a gap: their words
-    return flat.reshape(cov.shape)
-
+# the notes (defined here before)
+from .budgetstatus_notes import (HOURS_PER_WEEK, NO_PNA_AT_SITE,  # noqa: F401
+                                 SAMPLING_GAP_NOTE_H, join_notes, sampling_gap_note,
+                                 split_notes)
+# the dry components and the brackets (defined here before)
+from .budgetstatus_dry import (NH3_NET_EMISSION, bracket_outputs,  # noqa: F401
+                               bracket_velocities, bulk_caught_brackets, dry_status,
+                               nh3_net_component)
 
 #: How a censored value was replaced, in words (`WetOptions.detection_limit`).
 CENSORED_WORDS = {"half": "half the detection limit", "limit": "the detection limit",
@@ -423,175 +298,3 @@ def wet_outputs(w: xr.Dataset):
                             "concentration (nss: non-sea-salt)"}),
     }
     return out, ions
-
-
-#: Reason written where the net NH3 exchange over a period is an emission while the
-#: deposition-only figure is a deposition (the sign flips).
-NH3_NET_EMISSION = "nh3_net_emission"
-
-
-def nh3_net_component(dep_only, net, status, note):
-    """The NH3 component as the net exchange, its flag where the sign flips.
-
-    Parameters
-    ----------
-    dep_only : ndarray (site, receptor, period)
-        Deposition-only NH3 flux (the scheme's Vd) [mol m-2].
-    net : ndarray (site, receptor, period)
-        Net exchange of the compensation point model, deposition - emission
-        (positive down; negative = emission, never clipped) [mol m-2].
-    status, note : ndarray of str
-        The component's status and note from the deposition-only rows (same sampling
-        periods, so the same coverage).
-
-    Returns
-    -------
-    dep, status, note : ndarray
-        The net flux; ``flagged`` (not failing completeness: it is the answer, read with
-        care) with the reason :data:`NH3_NET_EMISSION` where the net is an emission and
-        the deposition-only figure is not; ``missing`` where the net is unknown.
-    """
-    present = status != "missing"
-    flip = present & np.isfinite(net) & (net < 0) & ~(dep_only < 0)
-    unknown = present & ~np.isfinite(net)
-    status = np.where(flip & np.isin(status, ("complete", "filled")), "flagged", status)
-    note = np.where(flip, join_notes(note, f"{NH3_NET_EMISSION}: the net NH3 exchange is an "
-                                     "emission (deposition - emission < 0) while the "
-                                     "deposition-only figure is a deposition; N totals use "
-                                     "the net"), note)
-    note = np.where(unknown, join_notes(note, "net NH3 exchange unknown (no hour of the "
-                                        "compensation point model)"), note)
-    status = np.where(unknown, "missing", status)
-    return np.where(present & ~unknown, net, np.nan), status, note
-
-
-def bracket_velocities(members) -> dict:
-    """The species whose Vd deposits a whole gas/particle pair in each bracket.
-
-    Parameters
-    ----------
-    members : tuple of str
-        (gas, particle), a value of :data:`workbench.budget.PAIRS`.
-
-    Returns
-    -------
-    dict
-        ``{"all_gas": gas, "all_particle": particle}``: for NH3 the gas scheme's
-        deposition-only Vd, also under ``nh3_treatment = "bidirectional"``.
-    """
-    gas, part = members
-    return {"all_gas": gas, "all_particle": part}
-
-
-def bracket_outputs(dr, pairs, species, vd_cov, filled_share, measured, season_ok, ratio,
-                    options):
-    """The dry-N brackets with their status: the weaker pair member's coverage.
-
-    A bracket adds both members of a gas/particle pair deposited with one phase's Vd,
-    each over its own sampling periods (:func:`workbench.drycomponents.dry_rows`), so it
-    is no better than its weaker member: its air and flux coverage are the smaller of
-    the members' (at the bracket's Vd), its Vd coverage that of the Vd it uses, and it
-    is judged by the rule of a dry component (:func:`dry_status`): ``missing`` where a
-    member has no flux, ``flagged`` where either member fails completeness.
-
-    Parameters
-    ----------
-    dr : xarray.Dataset
-        :func:`workbench.drycomponents.dry_components` on the budget's receptor axis.
-    pairs : dict
-        :data:`workbench.budget.PAIRS`.
-    species : list of str
-        The ``species`` axis of `dr`.
-    vd_cov, filled_share : ndarray (site, receptor, period, species) [1]
-    measured : ndarray of bool (site, species)
-    season_ok : ndarray of bool (site, period, species)
-    ratio : ndarray of bool (species)
-        Given as a mixing ratio.
-    options : BudgetOptions
-
-    Returns
-    -------
-    dict
-        xarray Variables on (site, receptor, period): ``bracket_<pair>_<how>``
-        [mol m-2 of N] (NaN where ``missing``), ``..._status``, ``..._completeness``
-        [1] (the smallest of air, flux and Vd coverage) and ``..._note``.
-    """
-    out = {}
-    dims = ("site", "receptor", "period")
-    for pair, members in pairs.items():
-        for how, vd_sp in bracket_velocities(members).items():
-            name = f"bracket_{pair}_{how}"
-            if name not in dr.variables:
-                continue
-            ks = [species.index(m) for m in members]
-            k = species.index(vd_sp)
-            d = dr.variables[name].values
-            cov = dr.variables[f"{name}_air_coverage"].values[:, None, :] * np.ones(d.shape)
-            fc = dr.variables[f"{name}_flux_coverage"].values
-            meas = measured[:, ks].all(-1)[:, None, None] & np.ones(d.shape, bool)
-            sok = season_ok[:, :, ks].all(-1)[:, None, :]
-            st, _, note = dry_status(cov, vd_cov[..., k], filled_share[..., k], fc, meas, sok,
-                                     bool(ratio[ks].any()), options)
-            note = np.where(note == "", note, f"the weaker of {' and '.join(members)}: " + note)
-            compl = np.fmin(np.fmin(cov, fc), vd_cov[..., k])
-            miss = st == "missing"
-            out[name] = xr.Variable(dims, np.where(miss, np.nan, d), dr.variables[name].attrs)
-            out[f"{name}_status"] = xr.Variable(dims, st, {
-                "long_name": f"status of {name}: that of the weaker pair member (docs/budget.md)"})
-            out[f"{name}_completeness"] = xr.Variable(dims, np.where(miss, np.nan, compl), {
-                "units": "1", "long_name": f"completeness of {name}: the smallest air, flux "
-                "and Vd coverage of the pair members"})
-            out[f"{name}_note"] = xr.Variable(dims, note.astype(object), {
-                "long_name": f"why {name} is missing or flagged"})
-    return out
-
-
-def bulk_caught_brackets(brackets, pairs, bulk, component_of, options):
-    """The all-particle brackets at bulk-collector sites under ``bulk_correction =
-    "exclude_particles"``: taken as caught by the collector, as the particle components.
-
-    With the pair all as particle, both members' mass deposits as particles, and at a
-    bulk site the budget takes particle dry deposition as caught in the bulk "wet" ion
-    (docs/budget.md, bulk collectors): the bracket is 0 there, with the status and
-    completeness of the particle component (that of its wet ion), so that
-    ``dry_N_all_particle`` equals the main numbers under ``pair_split =
-    "all_particle"``.  The all-gas brackets are left as they are (gases are not taken
-    as caught).
-
-    Parameters
-    ----------
-    brackets : dict
-        :func:`bracket_outputs`; changed in place and returned.
-    pairs : dict
-        :data:`workbench.budget.PAIRS`.
-    bulk : ndarray of bool (site) or (site, period)
-        The site has a bulk collector (over the whole period: a declared collector
-        change is followed).
-    component_of : callable
-        Particle species -> (deposition [mol m-2], status, completeness [1]) on (site,
-        receptor, period), the budget's own component after its bulk rule.
-    options : BudgetOptions
-
-    Returns
-    -------
-    dict
-    """
-    if options.bulk_correction != "exclude_particles" or not bulk.any():
-        return brackets
-    for pair, (_, particle) in pairs.items():
-        name = f"bracket_{pair}_all_particle"
-        if name not in brackets:
-            continue
-        dep, st, compl = component_of(particle)
-        at = ((bulk[:, None, None] if bulk.ndim == 1 else bulk[:, None, :])
-              & np.ones(dep.shape, bool))
-        for var, new in ((name, dep), (f"{name}_status", st),
-                         (f"{name}_completeness", compl),
-                         (f"{name}_note", np.full(dep.shape, "caught by the bulk collector: "
-                                                  f"the {pair} pair as particles is counted in "
-                                                  "the wet deposition, 0 here (the scenario's "
-                                                  "bulk_correction = \"exclude_particles\")",
-                                                  dtype=object))):
-            v = brackets[var]
-            brackets[var] = v.copy(data=np.where(at, new, v.values))
-    return brackets

@@ -1,0 +1,234 @@
+"""Status and reasons of the budget's dry components: a dry species, the net NH3
+exchange, and the brackets of the gas/particle pairs.
+
+Part of :mod:`workbench.budgetstatus` (which re-exports every name here).
+"""
+from __future__ import annotations
+
+import numpy as np
+import xarray as xr
+
+from .budgetstatus_notes import join_notes
+from .wet.qa import exceeds, falls_short
+
+
+def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
+                options):
+    """Status, completeness failure and reason of a dry component.
+
+    Parameters
+    ----------
+    coverage, vd_cov, filled_share, flux_cov : ndarray
+        Share of the period's hours with a concentration, with a modelled Vd, with
+        a filled Vd, and in sampling periods whose flux is known [1].
+    measured, season_ok : ndarray of bool
+    ratio : bool
+        The species is given as a mixing ratio (needs the molar density of air).
+    options : BudgetOptions
+
+    Returns
+    -------
+    status : ndarray of str
+    fails : ndarray of bool
+        A present component fails completeness (status ``flagged``).
+    note : ndarray of str
+        Why a component is missing or flagged ('' otherwise).
+    """
+    vd_any = np.nan_to_num(vd_cov) + np.nan_to_num(filled_share)
+    # a share equal to its bound (to rounding) is inside it: 10 % filled is not "more
+    # than 10 %" although 1 - 0.9 is 0.09999999999999998 (workbench.wet.qa)
+    low_flux = falls_short(flux_cov, options.min_air_coverage)
+    fails = falls_short(coverage, options.min_air_coverage) | ~season_ok | low_flux
+    status = np.full(coverage.shape, "complete", dtype=object)
+    status = np.where(exceeds(filled_share, 1 - options.min_vd_coverage), "filled", status)
+    status = np.where(fails, "flagged", status)
+    note = np.full(coverage.shape, "", dtype=object)
+    note = np.where(low_flux & (flux_cov > 0) & (flux_cov < coverage),
+                    "flux known for part of the sampled hours only (Vd or air density "
+                    "missing in the others)", note)
+    note = np.where(~season_ok & (coverage > 0), "a season without concentrations", note)
+    no_vd = vd_any <= 0
+    why_none = np.where(no_vd, "no deposition velocity for any hour of the period (check the "
+                        "met record and the site's roughness and heights)",
+                        "no molar density of air (temperature or pressure) in the sampled "
+                        "hours: the mixing ratio cannot become a flux" if ratio else
+                        "no hour with both a concentration and a deposition velocity")
+    gone = (coverage > 0) & ~(flux_cov > 0)
+    note = np.where(gone, why_none, note)
+    note = np.where(~(coverage > 0), "no concentration in the period", note)
+    note = np.where(measured, note, "not measured at the site (no valid concentration)")
+    missing = ~measured | ~(coverage > 0) | gone | ~np.isfinite(vd_cov)
+    status = np.where(missing, "missing", status)
+    return status, fails & ~missing, note
+
+
+#: Reason written where the net NH3 exchange over a period is an emission while the
+#: deposition-only figure is a deposition (the sign flips).
+NH3_NET_EMISSION = "nh3_net_emission"
+
+
+def nh3_net_component(dep_only, net, status, note):
+    """The NH3 component as the net exchange, its flag where the sign flips.
+
+    Parameters
+    ----------
+    dep_only : ndarray (site, receptor, period)
+        Deposition-only NH3 flux (the scheme's Vd) [mol m-2].
+    net : ndarray (site, receptor, period)
+        Net exchange of the compensation point model, deposition - emission
+        (positive down; negative = emission, never clipped) [mol m-2].
+    status, note : ndarray of str
+        The component's status and note from the deposition-only rows (same sampling
+        periods, so the same coverage).
+
+    Returns
+    -------
+    dep, status, note : ndarray
+        The net flux; ``flagged`` (not failing completeness: it is the answer, read with
+        care) with the reason :data:`NH3_NET_EMISSION` where the net is an emission and
+        the deposition-only figure is not; ``missing`` where the net is unknown.
+    """
+    present = status != "missing"
+    flip = present & np.isfinite(net) & (net < 0) & ~(dep_only < 0)
+    unknown = present & ~np.isfinite(net)
+    status = np.where(flip & np.isin(status, ("complete", "filled")), "flagged", status)
+    note = np.where(flip, join_notes(note, f"{NH3_NET_EMISSION}: the net NH3 exchange is an "
+                                     "emission (deposition - emission < 0) while the "
+                                     "deposition-only figure is a deposition; N totals use "
+                                     "the net"), note)
+    note = np.where(unknown, join_notes(note, "net NH3 exchange unknown (no hour of the "
+                                        "compensation point model)"), note)
+    status = np.where(unknown, "missing", status)
+    return np.where(present & ~unknown, net, np.nan), status, note
+
+
+def bracket_velocities(members) -> dict:
+    """The species whose Vd deposits a whole gas/particle pair in each bracket.
+
+    Parameters
+    ----------
+    members : tuple of str
+        (gas, particle), a value of :data:`workbench.budget.PAIRS`.
+
+    Returns
+    -------
+    dict
+        ``{"all_gas": gas, "all_particle": particle}``: for NH3 the gas scheme's
+        deposition-only Vd, also under ``nh3_treatment = "bidirectional"``.
+    """
+    gas, part = members
+    return {"all_gas": gas, "all_particle": part}
+
+
+def bracket_outputs(dr, pairs, species, vd_cov, filled_share, measured, season_ok, ratio,
+                    options):
+    """The dry-N brackets with their status: the weaker pair member's coverage.
+
+    A bracket adds both members of a gas/particle pair deposited with one phase's Vd,
+    each over its own sampling periods (:func:`workbench.drycomponents.dry_rows`), so it
+    is no better than its weaker member: its air and flux coverage are the smaller of
+    the members' (at the bracket's Vd), its Vd coverage that of the Vd it uses, and it
+    is judged by the rule of a dry component (:func:`dry_status`): ``missing`` where a
+    member has no flux, ``flagged`` where either member fails completeness.
+
+    Parameters
+    ----------
+    dr : xarray.Dataset
+        :func:`workbench.drycomponents.dry_components` on the budget's receptor axis.
+    pairs : dict
+        :data:`workbench.budget.PAIRS`.
+    species : list of str
+        The ``species`` axis of `dr`.
+    vd_cov, filled_share : ndarray (site, receptor, period, species) [1]
+    measured : ndarray of bool (site, species)
+    season_ok : ndarray of bool (site, period, species)
+    ratio : ndarray of bool (species)
+        Given as a mixing ratio.
+    options : BudgetOptions
+
+    Returns
+    -------
+    dict
+        xarray Variables on (site, receptor, period): ``bracket_<pair>_<how>``
+        [mol m-2 of N] (NaN where ``missing``), ``..._status``, ``..._completeness``
+        [1] (the smallest of air, flux and Vd coverage) and ``..._note``.
+    """
+    out = {}
+    dims = ("site", "receptor", "period")
+    for pair, members in pairs.items():
+        for how, vd_sp in bracket_velocities(members).items():
+            name = f"bracket_{pair}_{how}"
+            if name not in dr.variables:
+                continue
+            ks = [species.index(m) for m in members]
+            k = species.index(vd_sp)
+            d = dr.variables[name].values
+            cov = dr.variables[f"{name}_air_coverage"].values[:, None, :] * np.ones(d.shape)
+            fc = dr.variables[f"{name}_flux_coverage"].values
+            meas = measured[:, ks].all(-1)[:, None, None] & np.ones(d.shape, bool)
+            sok = season_ok[:, :, ks].all(-1)[:, None, :]
+            st, _, note = dry_status(cov, vd_cov[..., k], filled_share[..., k], fc, meas, sok,
+                                     bool(ratio[ks].any()), options)
+            note = np.where(note == "", note, f"the weaker of {' and '.join(members)}: " + note)
+            compl = np.fmin(np.fmin(cov, fc), vd_cov[..., k])
+            miss = st == "missing"
+            out[name] = xr.Variable(dims, np.where(miss, np.nan, d), dr.variables[name].attrs)
+            out[f"{name}_status"] = xr.Variable(dims, st, {
+                "long_name": f"status of {name}: that of the weaker pair member (docs/budget.md)"})
+            out[f"{name}_completeness"] = xr.Variable(dims, np.where(miss, np.nan, compl), {
+                "units": "1", "long_name": f"completeness of {name}: the smallest air, flux "
+                "and Vd coverage of the pair members"})
+            out[f"{name}_note"] = xr.Variable(dims, note.astype(object), {
+                "long_name": f"why {name} is missing or flagged"})
+    return out
+
+
+def bulk_caught_brackets(brackets, pairs, bulk, component_of, options):
+    """The all-particle brackets at bulk-collector sites under ``bulk_correction =
+    "exclude_particles"``: taken as caught by the collector, as the particle components.
+
+    With the pair all as particle, both members' mass deposits as particles, and at a
+    bulk site the budget takes particle dry deposition as caught in the bulk "wet" ion
+    (docs/budget.md, bulk collectors): the bracket is 0 there, with the status and
+    completeness of the particle component (that of its wet ion), so that
+    ``dry_N_all_particle`` equals the main numbers under ``pair_split =
+    "all_particle"``.  The all-gas brackets are left as they are (gases are not taken
+    as caught).
+
+    Parameters
+    ----------
+    brackets : dict
+        :func:`bracket_outputs`; changed in place and returned.
+    pairs : dict
+        :data:`workbench.budget.PAIRS`.
+    bulk : ndarray of bool (site) or (site, period)
+        The site has a bulk collector (over the whole period: a declared collector
+        change is followed).
+    component_of : callable
+        Particle species -> (deposition [mol m-2], status, completeness [1]) on (site,
+        receptor, period), the budget's own component after its bulk rule.
+    options : BudgetOptions
+
+    Returns
+    -------
+    dict
+    """
+    if options.bulk_correction != "exclude_particles" or not bulk.any():
+        return brackets
+    for pair, (_, particle) in pairs.items():
+        name = f"bracket_{pair}_all_particle"
+        if name not in brackets:
+            continue
+        dep, st, compl = component_of(particle)
+        at = ((bulk[:, None, None] if bulk.ndim == 1 else bulk[:, None, :])
+              & np.ones(dep.shape, bool))
+        for var, new in ((name, dep), (f"{name}_status", st),
+                         (f"{name}_completeness", compl),
+                         (f"{name}_note", np.full(dep.shape, "caught by the bulk collector: "
+                                                  f"the {pair} pair as particles is counted in "
+                                                  "the wet deposition, 0 here (the scenario's "
+                                                  "bulk_correction = \"exclude_particles\")",
+                                                  dtype=object))):
+            v = brackets[var]
+            brackets[var] = v.copy(data=np.where(at, new, v.values))
+    return brackets

@@ -1,0 +1,100 @@
+"""The notes of the budget's rows: '; '-joined parts, split outside parentheses, and the
+note of a period's hours without a usable sample; the start of the note of a site that
+measures no pNa.
+
+Part of :mod:`workbench.budgetstatus` (which re-exports every name here).
+"""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+
+#: The start of the note of a site that measures no pNa at all: its total pSO4 stands
+#: for the non-sea-salt part on one basis over the whole record, said but not flagged
+#: (the budget flags only weeks without pNa among weeks with it; docs/budget.md;
+#: written by :func:`workbench.drycomponents.total_used_notes`).
+NO_PNA_AT_SITE = "no pNa measured at the site"
+
+
+def split_notes(text) -> list:
+    """The parts of a '; '-joined note (:func:`join_notes`), split only outside
+    parentheses: a part may hold "; " inside its own parenthesis ("... (sea salt
+    included, an upper bound; small inland)"), and a split there cut it in two, the
+    second half then read as a part of its own ("every year used: pSO4: small inland)").
+
+    >>> split_notes("a (b; c); d")
+    ['a (b; c)', 'd']
+    >>> split_notes("")
+    []
+    """
+    text = str(text)
+    parts, depth, start = [], 0, 0
+    for i, ch in enumerate(text):            # over a note's characters, never over hours
+        if ch == "(":
+            depth += 1
+        elif ch == ")":
+            depth = max(depth - 1, 0)
+        elif ch == ";" and depth == 0 and text.startswith("; ", i):
+            parts.append(text[start:i])
+            start = i + 2
+    parts.append(text[start:])
+    return [p for p in parts if p.strip()]
+
+
+def join_notes(acc, text):
+    """Append `text` to the '; '-joined notes in `acc` (ndarray of str or str); an empty
+    `text` (scalar or element) leaves `acc` as it is."""
+    acc = np.asarray(acc, dtype=object)
+    acc = np.where(pd.isna(acc), "", acc)
+    text = np.asarray(text, dtype=object)
+    return np.where(text == "", acc, np.where(acc == "", text, acc + "; " + text)).astype(object)
+
+
+#: The shortest stretch of a period without samples that a budget row notes [h]: a
+#: week, the usual sample (our choice; a weekly sample across the edge of the record's
+#: first year leaves less).
+SAMPLING_GAP_NOTE_H = 168.0
+#: Hours of a week, the unit the note counts a gap in [h].
+HOURS_PER_WEEK = 168.0
+
+
+def sampling_gap_note(note, status, coverage, hours, role):
+    """Add to a component's note the hours of its period without a usable sample.
+
+    A gap within the completeness thresholds keeps a component ``complete`` (the covered
+    weeks stand for the period): the note says it where the number is read, e.g. ``air:
+    10 weeks without a usable sample (80.8 % of the period's hours covered)``.  Written
+    for a component that is not ``missing`` with at least :data:`SAMPLING_GAP_NOTE_H`
+    hours of its period not covered: no sample (a sampler out of service) or only
+    samples left out (a lost sample; input_rows.csv says why).  The coverage is the
+    budget's own (``air_coverage``; ``wet_coverage_fraction``, where dry and trace weeks
+    count as covered).
+
+    Parameters
+    ----------
+    note, status : ndarray of str
+        The component's note and status (any shape, the period axis among them).
+    coverage : ndarray
+        Share of the period's hours covered [1] (NaN: not applicable), as `note`.
+    hours : ndarray
+        Hours of the periods [h], broadcastable to `coverage`.
+    role : str
+        ``air`` or ``precipitation``: the word the note opens with.
+
+    Returns
+    -------
+    ndarray of str
+    """
+    cov = np.asarray(coverage, float)
+    note = np.array(np.broadcast_to(np.asarray(note, dtype=object), cov.shape))
+    gap = (1.0 - cov) * np.broadcast_to(np.asarray(hours, float), cov.shape)      # [h]
+    show = np.flatnonzero((np.isfinite(cov) & (cov > 0) & (status != "missing")
+                           & (gap >= SAMPLING_GAP_NOTE_H - 1e-6)).ravel())
+    flat, flat_gap, flat_cov = note.reshape(-1), gap.reshape(-1), cov.reshape(-1)
+    weeks = [round(float(g) / HOURS_PER_WEEK, 1) for g in flat_gap[show]]
+    text = np.array([f"{role}: {w:g} week{'' if w == 1 else 's'} without a usable sample "
+                     f"({100 * c:.1f} % of the period's hours covered)"
+                     for w, c in zip(weeks, flat_cov[show])], dtype=object)
+    flat[show] = join_notes(flat[show], text)     # the few rows with a gap: their words
+    return flat.reshape(cov.shape)
