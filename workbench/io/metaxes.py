@@ -95,7 +95,6 @@ def first_difference(var, dim, dropped, of, read, block_values=REPEAT_BLOCK_VALU
         `of[k]` and `dropped[k]`.  NaN equals NaN.
     """
     order = (dim,) + tuple(d for d in var.dims if d != dim)
-    var = var.transpose(*order)
     rest = tuple(int(var.sizes[d]) for d in order[1:])
     per_step = int(np.prod(rest, dtype=np.int64))
     per_row = int(np.prod(rest[1:], dtype=np.int64)) if rest else 1
@@ -115,9 +114,11 @@ def first_difference(var, dim, dropped, of, read, block_values=REPEAT_BLOCK_VALU
             where = {dim: of[ks]}
             if rest and rows < n_rows:
                 where[order[1]] = slice(r0, r0 + rows)
-            a = np.asarray(read(var.isel(where))).reshape(n_k, -1)
+            # indexed before the transpose: a lazily transposed variable indexed by a
+            # list is read whole by xarray's backends, not at the positions
+            a = np.asarray(read(var.isel(where).transpose(*order))).reshape(n_k, -1)
             where[dim] = dropped[ks]
-            b = np.asarray(read(var.isel(where))).reshape(n_k, -1)
+            b = np.asarray(read(var.isel(where).transpose(*order))).reshape(n_k, -1)
             differ = ~_same(a, b)
             new = differ.any(axis=1) & (cell < 0)
             if new.any():
