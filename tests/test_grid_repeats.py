@@ -142,3 +142,24 @@ def test_nan_repeats_nan_and_blocks_give_the_same_answer(demo):
             check_met_repeats(twice, path, twice["time"].values, found, block_values=block)
         msgs.add(str(e.value))
     assert len(msgs) == 1 and "y index 3" in msgs.pop()
+
+
+def test_only_the_repeated_steps_are_read_a_block_at_a_time(demo, monkeypatch):
+    """Each read holds at most a block of values; together, the repeated steps and the
+    steps they repeat of each variable once, never the rest of the grid."""
+    import workbench.grid_repeats as grid_repeats
+    _, met = demo
+    twice = _overlap(met)
+    sizes = []
+    real = grid_repeats.read_values
+    monkeypatch.setattr(grid_repeats, "read_values",
+                        lambda part, *a: sizes.append(part.size) or real(part, *a))
+    found = grid_repeats.MetRepeats.of_times(twice["time"].values)
+    plane = met.sizes["y"] * met.sizes["x"]
+    names = [n for n in met.data_vars if "time" in met[n].dims and n != "time_bnds"]
+    for block in (4, 3 * plane):
+        sizes.clear()
+        grid_repeats.check_met_repeats(twice, Path("met.nc"), twice["time"].values, found,
+                                       block_values=block)
+        assert max(sizes) <= block
+        assert sum(sizes) == 2 * found.n_dropped * plane * len(names)
