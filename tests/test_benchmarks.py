@@ -259,3 +259,12 @@ def test_uncertainty_network_prints_its_ranges(scenario, capsys):
     assert "S network sum" in text and "ridge" in text
     lo, mid, hi = out["intervals"]["S network sum, span [eq/ha/yr]"]
     assert lo <= mid <= hi and out["peak_mb"] > 0
+
+
+def test_repeat_memory_compares_whole_and_in_blocks_alike(capsys):
+    bench = _load("repeat_memory")
+    assert bench.main(["--sites", "20", "--hours", "100", "--variables", "1"]) == 0
+    out = capsys.readouterr().out
+    assert "exact repeat: results identical across settings: True" in out
+    assert "one value differs: results identical across settings: True" in out
+    assert "column 'temperature': duplicate hour" in out

@@ -182,7 +182,10 @@ def _block_values(grid, role, names, ys, xs, then) -> dict:
     holds them, else read from the input."""
     copy = grid.scratch.get(role)
     direct = [n for n in names if copy is None or not copy.has(n, ys, xs)]
-    out = {n: then(n, copy.values(n, ys, xs)) for n in names if n not in direct}
+    # the met's steps repeated in every variable are dropped (workbench.grid_repeats)
+    keep = grid.met_keep if role == "met" else None
+    out = {n: then(n, copy.values(n, ys, xs) if keep is None else copy.values(n, ys, xs)[keep])
+           for n in names if n not in direct}
     for name in direct:
         # the file opened anew for each variable (as the scratch copy does): one open
         # NetCDF4 file kept the HDF5 chunk cache of every variable read through it, so
@@ -191,6 +194,8 @@ def _block_values(grid, role, names, ys, xs, then) -> dict:
             var = raw[name].isel({grid.dims[0]: ys, grid.dims[1]: xs})
             extra = [d for d in var.dims if d != "time" and d not in grid.dims]
             var = var.squeeze(extra, drop=True).transpose("time", *grid.dims)
+            if keep is not None:
+                var = var.isel(time=keep)
             v = read_values(var, grid.paths[role], name)
         out[name] = then(name, v.reshape(v.shape[0], -1))
         del v

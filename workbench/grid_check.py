@@ -14,7 +14,8 @@ import xarray as xr
 
 from .errors import suggest
 from .grid_read import (AIR_SPECIES, LAND_FIELDS, GridError, _air_times, _convert_met,
-                        _grid_dims, _height, _lat_lon, _met_times, _open)
+                        _grid_dims, _height, _hourly, _lat_lon, _met_labels, _open)
+from .grid_repeats import MetRepeats, check_met_repeats
 from .io.met import MET_VARIABLES
 from .io.samples import parse_reference_state
 from .landuse import LAND_USE
@@ -36,7 +37,12 @@ class Grid:
     wind_height, sampler_height : float
         Height of the wind [m] and of the concentrations [m].
     times : ndarray of datetime64[ns]
-        End of each met hour (UTC).
+        End of each met hour (UTC), the steps of the met file repeated in every
+        variable dropped (:mod:`workbench.grid_repeats`).
+    met_keep : ndarray of int or None
+        Time indices of the met file kept; None when no step repeats (all kept).
+    met_dropped : int
+        Time steps of the met file dropped as exact repeats of earlier ones [-].
     air_start, air_end : ndarray of datetime64[ns]
         Sampling intervals of the concentrations (UTC).
     air_units : dict
@@ -65,6 +71,8 @@ class Grid:
     #: (row, column) in the whole grid of the first cell of the 2-D fields: (0, 0) but
     #: for the grid of one block that a dask task carries (:func:`cut`).
     origin: tuple = (0, 0)
+    met_keep: np.ndarray | None = None
+    met_dropped: int = 0
 
     @property
     def shape(self) -> tuple:
@@ -171,7 +179,10 @@ def _check(paths, ds) -> Grid:
                             file=paths["land_use"], column=name, value=u,
                             expected=f"a unit convertible to {unit}") from None
     # ---- met
-    times = _met_times(met, paths["met"])
+    labels = _met_labels(met, paths["met"])
+    repeats = MetRepeats.of_times(labels)          # a step given twice: compared below
+    times = labels[repeats.keep]
+    _hourly(times, repeats.keep, paths["met"])
     met_units = {}
     for name, (target, req, _) in MET_VARIABLES.items():
         if name not in met:
@@ -188,6 +199,8 @@ def _check(paths, ds) -> Grid:
         _convert_met(np.ones(1), unit, name, target, paths["met"])     # the unit, early
         met_units[name] = unit
     wind_height = _height(met, paths["met"], "wind_speed")
+    # only the repeated steps are read, in blocks (one located error for another value)
+    repeat_note = check_met_repeats(met, paths["met"], labels, repeats)
     # ---- air
     start, end = _air_times(air, paths["air"])
     air_units, heights = {}, set()
@@ -243,7 +256,7 @@ def _check(paths, ds) -> Grid:
     ch = extra.get("canopy_height")
     canopy = default_h if ch is None else np.where(np.isfinite(ch), ch, default_h)
     elev = extra.get("surface_altitude", np.zeros(shape))
-    notes = []
+    notes = [repeat_note] if repeat_note else []
     if "surface_altitude" not in extra:
         notes.append(f"{paths['land_use'].name}: no surface_altitude: 0 m taken where the "
                      "met has no pressure")
@@ -257,7 +270,9 @@ def _check(paths, ds) -> Grid:
                 wind_height=wind_height, sampler_height=heights.pop(), times=times,
                 air_start=start, air_end=end, met_units=met_units, air_units=air_units,
                 reference_state=ref if needs_ref else None,
-                template=_template(lu, dims, mapping), notes=notes)
+                template=_template(lu, dims, mapping), notes=notes,
+                met_keep=repeats.keep if repeats.n_dropped else None,
+                met_dropped=repeats.n_dropped)
 
 
 def _same_grid(ds, name, dims, shape, lu, path):
@@ -298,6 +313,9 @@ def describe(grid: Grid) -> str:
     counts = pd.Series([c for c in grid.classes.reshape(-1) if c is not None]).value_counts()
     return (f"grid {ny} x {nx} cells ({', '.join(f'{k} {v}' for k, v in counts.items())}); "
             f"met {len(grid.times)} hours from {str(grid.times[0])[:16]} to "
-            f"{str(grid.times[-1])[:16]} UTC (end of hour), wind at {grid.wind_height:g} m; "
+            f"{str(grid.times[-1])[:16]} UTC (end of hour"
+            + (f"; {grid.met_dropped} repeated time step{'s' * (grid.met_dropped != 1)} "
+               "dropped" if grid.met_dropped else "")
+            + f"), wind at {grid.wind_height:g} m; "
             f"air {', '.join(grid.species)} over {len(grid.air_start)} intervals at "
             f"{grid.sampler_height:g} m")

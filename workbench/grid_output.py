@@ -504,6 +504,10 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
                 default=str)
             if left:
                 ds.attrs["workbench_period_notes"] = "; ".join(left)
+            if grid.met_dropped:       # no per-record ledger: the count and the note here
+                ds.attrs["workbench_met_repeated_steps_dropped"] = int(grid.met_dropped)
+                ds.attrs["workbench_met_repeat_note"] = "; ".join(
+                    n for n in grid.notes if "dropped as exact repeats" in n)
             target = folder.path / GRID_FILE
             try:
                 maps = create_grid_netcdf(ds, target, names)

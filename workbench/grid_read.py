@@ -136,6 +136,14 @@ def _lat_lon(files, shape, dims):
 
 
 def _met_times(ds, path):
+    """End of each met hour [datetime64[ns]], checked hourly (no step given twice)."""
+    times = _met_labels(ds, path)
+    _hourly(times, np.arange(len(times)), path)
+    return times
+
+
+def _met_labels(ds, path):
+    """End of each met hour of the file [datetime64[ns]], repeated steps included."""
     if "time" not in ds.dims:
         raise GridError("missing dimension", file=path, column="time",
                         value=", ".join(map(str, ds.dims)) or "none", expected="dims (time, y, x)")
@@ -160,6 +168,12 @@ def _met_times(ds, path):
                             expected="'end' or 'start' (global attribute), or CF time bounds")
         if label == "start":
             times = times + HOUR
+    return times
+
+
+def _hourly(times, index, path):
+    """Check that `times` (the kept steps, at time indices `index` of the file) are
+    consecutive whole hours."""
     off = (times - times.astype("datetime64[h]").astype("datetime64[ns]")) != np.timedelta64(0)
     step = np.diff(times) != HOUR
     if step.any() and not off.any():
@@ -168,16 +182,15 @@ def _met_times(ds, path):
         what = (f"{gap - 1:g} hour{'s' if gap != 2 else ''} missing" if gap > 1 else
                 "time not increasing" if gap <= 0 else "a step under 1 h")
         raise GridError(f"not hourly: a step of {gap:g} h after {str(times[i])[:16]}, "
-                        f"{what} (time index {i + 1})", file=path, column="time",
+                        f"{what} (time index {index[i + 1]})", file=path, column="time",
                         value=str(times[i + 1])[:19], expected="consecutive whole hours, "
                         "one step of 1 h (fill missing hours with _FillValue)")
     for bad, why in ((off, "timestamp not on the hour"), (np.r_[False, step], "not hourly")):
         if bad.any():
             i = int(np.flatnonzero(bad)[0])
-            raise GridError(f"{why} (time index {i})", file=path, column="time",
+            raise GridError(f"{why} (time index {index[i]})", file=path, column="time",
                             value=str(times[i])[:19], expected="consecutive whole hours, one "
                             "step of 1 h (fill missing hours with _FillValue)")
-    return times
 
 
 def _air_times(ds, path):

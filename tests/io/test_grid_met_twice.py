@@ -117,3 +117,49 @@ def test_nan_cells_repeat_nan_cells(grid_met, tmp_path, cat):
     twice = xr.concat([g, g.isel(time=[2])], dim="time")
     back, led = read_met(_write_in(twice, tmp_path, "nan", "nc"), cat)
     assert np.isnan(back["temperature"].values[0, 2]) and led.check_balanced()
+
+
+def _messages(raw, path, dim, block):
+    from workbench.grid_read import read_values
+    from workbench.io.metaxes import check_repeats
+    try:
+        return [a.tolist() for a in check_repeats(raw, path, dim, read_values,
+                                                  block_values=block)]
+    except InputError as exc:
+        return str(exc)
+
+
+@pytest.mark.parametrize("dim", ["time", "site"])
+def test_repeats_compared_in_blocks_give_the_messages_of_one_comparison(grid_met, tmp_path,
+                                                                         dim):
+    """Blocks of a value, of a few repeats, of a row, and everything at once: the same
+    kept positions, or the same located error (the first repeat that differs, in any
+    variable, and its first cell)."""
+    n = grid_met.sizes[dim]
+    g = grid_met.copy(deep=True)
+    g["temperature"].values[0, 1] = np.nan                       # NaN equal to NaN
+    pieces = [g, g.isel({dim: list(range(n))}), g.isel({dim: [0]})]
+    twice = xr.concat(pieces, dim=dim)
+    path = tmp_path / f"{dim}.nc"
+    twice.to_netcdf(path, engine="scipy")
+    blocks = (1, 2, 3, 7, 10**9)
+    with xr.open_dataset(path) as raw:
+        same = {str(_messages(raw, path, dim, b)) for b in blocks}
+    assert len(same) == 1 and "Error" not in same.pop()
+    # other values: a later repeat in the first variable, an earlier one in another,
+    # and two cells of that repeat (the first one in C order is named)
+    other = twice.copy(deep=True)
+    at = {"time": lambda k, j: (j, k), "site": lambda k, j: (k, j)}[dim]
+    m = twice.sizes["site" if dim == "time" else "time"]
+    other["temperature"].values[at(2 * n, 0)] += 1.0             # repeats index 0 again
+    other["wind_speed"].values[at(n + 1, m - 1)] += 1.0
+    other["wind_speed"].values[at(n + 1, 0)] += 2.0
+    path = tmp_path / f"{dim}_other.nc"
+    other.to_netcdf(path, engine="scipy")
+    with xr.open_dataset(path) as raw:
+        msgs = {_messages(raw, path, dim, b) for b in blocks}
+    assert len(msgs) == 1
+    msg = msgs.pop()
+    first = twice["wind_speed"].values[at(1, 0)]
+    assert "column 'wind_speed'" in msg and f"{dim} index {n + 1} repeats {dim} index 1" in msg
+    assert f"has wind_speed {first} m s-1 where {dim} index {n + 1} has {first + 2.0}" in msg

@@ -5,8 +5,9 @@ met: a time step (or a site) repeating an earlier one in every variable is dropp
 its records ``rejected`` in the ledger with
 :data:`~workbench.io.common.REPEAT_REASON` and named in one note; a repeat with another
 value in any variable is one located error naming the file, the site, the time, the
-variable and both values.  Only the repeated steps are read (one indexed read per
-variable, over every site and repeat at once: no loop over hours).
+variable and both values.  Only the repeated steps are read, variable by variable, in blocks
+of repeats of at most about :data:`REPEAT_BLOCK_VALUES` values a side (no loop over
+hours; :func:`first_difference` also serves the gridded met of ``workbench grid``).
 """
 from __future__ import annotations
 
@@ -56,7 +57,86 @@ def _same(a, b):
     return eq
 
 
-def check_repeats(raw, path, dim, read_values):
+#: Values of one variable compared at once, each side, by :func:`first_difference`
+#: [-].  The repeated steps of every site read at once held about 70 MB a side per
+#: variable for 1,000 sites x a year given twice; in blocks of this many values the
+#: comparison holds some 8 MB a side whatever the file's size, with the same result
+#: (2026-12-05, benchmarks/repeat_memory.py, docs/performance.md; our choice).
+REPEAT_BLOCK_VALUES = 1 << 20
+
+
+def first_difference(var, dim, dropped, of, read, block_values=REPEAT_BLOCK_VALUES):
+    """The first repeat along `dim` whose values differ from those it repeats.
+
+    Only the repeated positions are read, in blocks of repeats (and, where one
+    repeat holds more than `block_values` values, of rows of the next dim), so that
+    each side holds at most about `block_values` values: the result is that of one
+    comparison of every repeat at once.
+
+    Parameters
+    ----------
+    var : xarray.DataArray
+        A lazily read variable with `dim` among its dims.
+    dim : str
+    dropped, of : ndarray of int
+        Positions along `dim` of the repeats and of the labels they repeat
+        (:func:`first_of_repeats`).
+    read : callable
+        ``read(part)`` -> the values of a lazily indexed part of `var`.
+    block_values : int
+        About the most values of `var` read at once on each side [-].
+
+    Returns
+    -------
+    None or (k, cell, order, first, again)
+        `k` the index into `dropped` of the first repeat that differs, `cell` the
+        index (a tuple over the dims of ``order[1:]``) of its first differing value in
+        C order, `order` the dims (`dim` first), `first` and `again` the values at
+        `of[k]` and `dropped[k]`.  NaN equals NaN.
+    """
+    order = (dim,) + tuple(d for d in var.dims if d != dim)
+    rest = tuple(int(var.sizes[d]) for d in order[1:])
+    per_step = int(np.prod(rest, dtype=np.int64))
+    per_row = int(np.prod(rest[1:], dtype=np.int64)) if rest else 1
+    n_rows = rest[0] if rest else 1
+    block = max(1, int(block_values))
+    if per_step <= block or not rest:
+        steps, rows = max(1, block // max(per_step, 1)), n_rows
+    else:
+        steps, rows = 1, max(1, block // max(per_row, 1))
+    dropped, of = np.asarray(dropped, np.int64), np.asarray(of, np.int64)
+    for k0 in range(0, len(dropped), steps):          # blocks of repeats, not hours
+        ks = slice(k0, k0 + steps)
+        n_k = len(dropped[ks])
+        cell = np.full(n_k, -1, np.int64)
+        first = again = None
+        for r0 in range(0, n_rows, rows):
+            where = {dim: of[ks]}
+            if rest and rows < n_rows:
+                where[order[1]] = slice(r0, r0 + rows)
+            # indexed before the transpose: a lazily transposed variable indexed by a
+            # list is read whole by xarray's backends, not at the positions
+            a = np.asarray(read(var.isel(where).transpose(*order))).reshape(n_k, -1)
+            where[dim] = dropped[ks]
+            b = np.asarray(read(var.isel(where).transpose(*order))).reshape(n_k, -1)
+            differ = ~_same(a, b)
+            new = differ.any(axis=1) & (cell < 0)
+            if new.any():
+                at = np.argmax(differ[new], axis=1)
+                cell[new] = r0 * per_row + at
+                if first is None:
+                    first = np.empty(n_k, a.dtype)
+                    again = np.empty(n_k, b.dtype)
+                first[new], again[new] = a[new, at], b[new, at]
+            del a, b, differ
+        if (cell >= 0).any():
+            k = int(np.argmax(cell >= 0))
+            idx = np.unravel_index(int(cell[k]), rest) if rest else ()
+            return k0 + k, tuple(int(i) for i in idx), order, first[k], again[k]
+    return None
+
+
+def check_repeats(raw, path, dim, read_values, block_values=REPEAT_BLOCK_VALUES):
     """Drop exact repeats along `dim` of `raw`; raise for a repeat with another value.
 
     Parameters
@@ -68,6 +148,9 @@ def check_repeats(raw, path, dim, read_values):
     read_values : callable
         ``read_values(var, path, name)`` -> the values of a lazily read variable (a
         located error for a damaged file).
+    block_values : int
+        About the most values of one variable compared at once on each side
+        (:func:`first_difference`); the result does not depend on it [-].
 
     Returns
     -------
@@ -91,16 +174,15 @@ def check_repeats(raw, path, dim, read_values):
         return np.arange(n), dropped, of
     other = "site" if dim == "time" else "time"
     bad_at, bad_name = None, None
-    for name in _compared(raw, dim):            # one read per variable, not per hour
-        var = raw[name]
-        order = (dim,) + tuple(d for d in var.dims if d != dim)
-        a = np.asarray(read_values(var.isel({dim: of}).transpose(*order), path, name))
-        b = np.asarray(read_values(var.isel({dim: dropped}).transpose(*order), path, name))
-        differ = ~_same(a, b).reshape(len(dropped), -1).all(axis=1)
-        if differ.any() and (bad_at is None or int(np.argmax(differ)) < bad_at[0]):
-            k = int(np.argmax(differ))
-            cell = int(np.argmax(~_same(a[k], b[k]).reshape(-1)))
-            bad_at, bad_name = (k, np.unravel_index(cell, a.shape[1:]), order, a, b), name
+    for name in _compared(raw, dim):        # blocks of repeats per variable, not hours
+        upto = len(dropped) if bad_at is None else bad_at[0]   # an earlier one wins
+        if not upto:
+            break
+        found = first_difference(raw[name], dim, dropped[:upto], of[:upto],
+                                 lambda part, name=name: read_values(part, path, name),
+                                 block_values)
+        if found is not None:
+            bad_at, bad_name = found, name
     if bad_at is not None:
         raise _conflict(raw, path, dim, other, dropped, of, bad_name, bad_at)
     keep = np.setdiff1d(np.arange(n), dropped)
@@ -109,10 +191,9 @@ def check_repeats(raw, path, dim, read_values):
 
 def _conflict(raw, path, dim, other, dropped, of, name, bad_at):
     """The located error of a repeat along `dim` with another value of `name`."""
-    k, cell, order, a, b = bad_at
+    k, cell, order, first, again = bad_at
     where = dict(zip(order[1:], cell))
     unit = raw[name].attrs.get("units", "")
-    first, again = a[k][cell], b[k][cell]
     i, j = int(of[k]), int(dropped[k])
     lab = raw[dim].values
     if dim == "time":
@@ -178,11 +259,11 @@ class AxisRepeats:
             repeat_note(path, "site", raw, drop_s, of_s, raw.sizes["time"])) if n]
 
     @classmethod
-    def find(cls, raw, path, read_values):
+    def find(cls, raw, path, read_values, block_values=REPEAT_BLOCK_VALUES):
         """None when neither axis repeats a label; else the repeats (exact: dropped),
         or the located error of a repeat with another value."""
-        found = (check_repeats(raw, path, "time", read_values),
-                 check_repeats(raw, path, "site", read_values))
+        found = (check_repeats(raw, path, "time", read_values, block_values),
+                 check_repeats(raw, path, "site", read_values, block_values))
         if not len(found[0][1]) and not len(found[1][1]):
             return None
         return cls(raw, path, found)
