@@ -10,7 +10,9 @@ row flagged with a hint, so that the ledger says what happened to it:
   than half of a sampler's values sit above the maximum and a factor 1000 brings them
   back into range, the hint names the likely unit slip (ng/m3 written under a ug/m3
   header, ppb under ppm), and every value of that sampler is masked, those below the
-  maximum too (they are 1000x too high as well).
+  maximum too (they are 1000x too high as well), and so are its values below detection
+  (``<limit``: the limit is 1000x too high, masked with the same flag, never kept as a
+  detection limit).
 
 The thresholds are in :data:`AIR_RANGES`, each with its source.  Slips that stay in
 range (element vs species basis of a particle column, ppb vs ug/m3 of a gas measured
@@ -158,7 +160,8 @@ def air_checks(species: str, ugm3, censored, groups, unit: str | None = None):
     Returns
     -------
     mask : ndarray of bool
-        Values to set to missing.
+        Values to set to missing (values below detection of a sampler judged in the
+        smaller unit among them: the caller drops their censoring).
     reasons : ndarray of str
         The flag per row ("" for none).
     """
@@ -189,6 +192,11 @@ def air_checks(species: str, ugm3, censored, groups, unit: str | None = None):
                        & (n_high >= SLIP_MIN_VALUES))
         with np.errstate(invalid="ignore"):   # a negative stays censored (or masked)
             slip = slip_group & (v > 0) & ~(too_high & ~fits)
+        # a value below detection at such a sampler holds a limit 1000x too high
+        # ('<50' ng/m3 read as '<50' ug/m3): masked with the same flag, not kept
+        limit = np.asarray(ugm3, float)
+        with np.errstate(invalid="ignore"):
+            slip |= slip_group & np.asarray(censored, bool) & (limit > 0)
         too_high = too_high | slip
         reasons[too_high & ~slip] = (f"{species} above the plausible {hi:g} ug/m3 (masked)")
         small = thousandth_unit(unit) if unit else ""
