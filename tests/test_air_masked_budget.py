@@ -121,3 +121,30 @@ def test_a_limit_at_a_sampler_in_the_header_unit_stays_censored():
     bad, why = air_checks("NH3", v, cens, np.array(["a"] * 5), unit="ug/m3")
     assert bad.tolist() == [False, False, True, False, False]
     assert why[1] == ""
+
+
+def test_the_site_texts_say_measured_and_masked(tmp_path):
+    """The notebooks' NH3 line, the budget figure's hover and legend note and the
+    no-effect text read the budget's note: "measured, every value masked", not "not
+    measured" nor a bare "no figure"."""
+    from workbench.ui.figures import budget_bars_spec
+    from workbench.ui.no_effect import component_reason
+    from workbench.ui.summaries import nh3_line
+    table, nc, _ = _run(tmp_path, ["1500", "2200", "1800", "1200"])
+    note = _nh3(table)["note"]
+    assert component_reason(note) == "every value masked"
+    assert component_reason("not measured at the site (no valid concentration)") == \
+        "not measured"
+    line = nh3_line(nc, "alpha", str(nc["receptor"].values[0]))
+    assert line == (f"Dry NH3: measured at this site, every value masked ({HINT}); the N "
+                    "totals leave it out (partial)."), line
+    spec = budget_bars_spec(nc, "alpha", str(nc["receptor"].values[0]))
+    legend = spec["layout"]["annotations"][0]["text"].replace("<br>", " ")
+    assert "measured, every value masked: dry NH3" in legend, legend
+    assert "not measured: dry pSO4" in legend          # not in the file: as before
+    nh3 = next(t for t in spec["data"] if t["name"] == "dry NH3")
+    hover = " ".join(map(str, nh3["customdata"])).replace("<br>", " ")
+    assert "measured, every value masked: NH3 values look 1000x" in hover, hover
+    total = next(t for t in spec["data"] if t["name"] == "total")
+    assert any("measured, every value masked: NH3" in str(x).replace("<br>", " ")
+               for x in total["customdata"]), total["customdata"]
