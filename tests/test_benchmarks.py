@@ -249,3 +249,11 @@ def test_uncertainty_network_prints_its_ranges(scenario, capsys):
     assert "S network sum" in text and "ridge" in text
     lo, mid, hi = out["intervals"]["S network sum, span [eq/ha/yr]"]
     assert lo <= mid <= hi and out["peak_mb"] > 0
+
+
+def test_air_thousand_slip_benchmark_counts_false_alarms_and_detections():
+    bench = _load("air_thousand_slip")
+    rows = bench.run(20, seed=3, genuine=(10.0,), clean=(1.5,), spreads=(0.6,), lengths=(52,))
+    assert [r[0] for r in rows] == ["genuine", "ng/m3"]
+    assert rows[0][4] == 0.0 and rows[1][4] > 0.5         # a farm: no alarm; ng/m3 found
+    assert bench.demo_fell_in_ng() == (416, 416)
