@@ -268,3 +268,11 @@ def test_repeat_memory_compares_whole_and_in_blocks_alike(capsys):
     assert "exact repeat: results identical across settings: True" in out
     assert "one value differs: results identical across settings: True" in out
     assert "column 'temperature': duplicate hour" in out
+
+
+def test_air_thousand_slip_benchmark_counts_false_alarms_and_detections():
+    bench = _load("air_thousand_slip")
+    rows = bench.run(20, seed=3, genuine=(10.0,), clean=(1.5,), spreads=(0.6,), lengths=(52,))
+    assert [r[0] for r in rows] == ["genuine", "ng/m3"]
+    assert rows[0][4] == 0.0 and rows[1][4] > 0.5         # a farm: no alarm; ng/m3 found
+    assert bench.demo_fell_in_ng() == (416, 416)

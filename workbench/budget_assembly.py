@@ -173,7 +173,10 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             meas = d_meas[:, None, None, k] * np.ones((1, n_r, n_p), bool)
             sok = d_sok[:, :, k][:, None, :]
             fc = d_fc[..., k]
-            st, fl, why = dry_status(cov, vdc, fs, fc, meas, sok, bool(d_ratio[k]), options)
+            mk = (dr.variables["masked_note"].values[:, k].astype(object)
+                  if "masked_note" in dr.variables else np.full(len(sites), "", object))
+            st, fl, why = dry_status(cov, vdc, fs, fc, meas, sok, bool(d_ratio[k]), options,
+                                     masked=mk[:, None, None])
             why = sampling_gap_note(why, st, cov, hours_p[None, None, :], "air")
             fails[..., j] = fl
             comp_note[..., j] = why

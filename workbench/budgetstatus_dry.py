@@ -6,14 +6,39 @@ Part of :mod:`workbench.budgetstatus` (which re-exports every name here).
 from __future__ import annotations
 
 import numpy as np
+import pandas as pd
 import xarray as xr
 
 from .budgetstatus_notes import join_notes
 from .wet.qa import exceeds, falls_short
 
 
+#: The start of the note of a dry component that has no number because the species
+#: is not in the air file at the site.
+NOT_MEASURED_NOTE = "not measured at the site (no valid concentration)"
+#: The start of the note of a dry component whose species was measured at the site but
+#: lost every value to a check of the air reader; the flag follows.
+ALL_MASKED_NOTE = "measured, every value masked"
+
+
+def unmeasured_note(masked) -> np.ndarray:
+    """The note of a component without any value at the site: :data:`ALL_MASKED_NOTE`
+    with the flag where every value was masked (`masked`, the reader's reason, e.g.
+    ``measured, every value masked: NH3 values look 1000x too high at this sampler:
+    ng/m3 written under a ug/m3 header?``), :data:`NOT_MEASURED_NOTE` where `masked` is
+    "" (the species is not sampled there).
+
+    >>> unmeasured_note(np.array(["", "NH3 above the plausible 1000 ug/m3"], object)).tolist()
+    ['not measured at the site (no valid concentration)', 'measured, every value masked: NH3 above the plausible 1000 ug/m3']
+    """
+    m = np.asarray(masked, dtype=object)
+    m = np.where(pd.isna(m), "", m).astype(str)
+    return np.where(m == "", NOT_MEASURED_NOTE,
+                    np.char.add(ALL_MASKED_NOTE + ": ", m)).astype(object)
+
+
 def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
-                options):
+                options, masked=""):
     """Status, completeness failure and reason of a dry component.
 
     Parameters
@@ -25,6 +50,9 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
     ratio : bool
         The species is given as a mixing ratio (needs the molar density of air).
     options : BudgetOptions
+    masked : str or ndarray of str, optional
+        Where the species is not `measured`: why every value at the site was masked
+        ("" for none: not sampled), broadcastable to `coverage` (:func:`unmeasured_note`).
 
     Returns
     -------
@@ -56,7 +84,7 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
     gone = (coverage > 0) & ~(flux_cov > 0)
     note = np.where(gone, why_none, note)
     note = np.where(~(coverage > 0), "no concentration in the period", note)
-    note = np.where(measured, note, "not measured at the site (no valid concentration)")
+    note = np.where(measured, note, unmeasured_note(masked))
     missing = ~measured | ~(coverage > 0) | gone | ~np.isfinite(vd_cov)
     status = np.where(missing, "missing", status)
     return status, fails & ~missing, note
@@ -167,8 +195,15 @@ def bracket_outputs(dr, pairs, species, vd_cov, filled_share, measured, season_o
             fc = dr.variables[f"{name}_flux_coverage"].values
             meas = measured[:, ks].all(-1)[:, None, None] & np.ones(d.shape, bool)
             sok = season_ok[:, :, ks].all(-1)[:, None, :]
+            # the reason of the first member that lost every value, where each member
+            # was measured (a member not sampled at the site: "not measured")
+            mk = (dr.variables["masked_note"].values[:, ks].astype(object)
+                  if "masked_note" in dr.variables else np.full((len(meas), 2), "", object))
+            mk = np.where(measured[:, ks], "", mk)
+            sampled = (measured[:, ks] | (mk != "")).all(-1)
+            mk = np.where(sampled, np.where(mk[:, 0] != "", mk[:, 0], mk[:, 1]), "")
             st, _, note = dry_status(cov, vd_cov[..., k], filled_share[..., k], fc, meas, sok,
-                                     bool(ratio[ks].any()), options)
+                                     bool(ratio[ks].any()), options, masked=mk[:, None, None])
             note = np.where(note == "", note, f"the weaker of {' and '.join(members)}: " + note)
             compl = np.fmin(np.fmin(cov, fc), vd_cov[..., k])
             miss = st == "missing"

@@ -68,7 +68,8 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         of the hours behind the flux, those in sampling periods with a known flux, whose
         Vd was filled or, missing, taken as the sampling period's mean), ``flux_coverage`` [1] (hours with a concentration
         and a deposition velocity: 0 where Vd or the air density is missing for every
-        hour, and the deposition is then NaN, never 0), ``measured`` (site, species),
+        hour, and the deposition is then NaN, never 0), ``measured`` (site, species), ``masked_note`` (site, species: why a
+        species measured there has no value left, "" otherwise),
         ``mixing_ratio`` (species: given as a mixing ratio), ``pSO4_total_used`` (site,
         period; text naming the pSO4 samples without pNa whose total pSO4 was used on
         the nss basis, "" where none; :func:`workbench.drynss.total_used_notes`), the pair brackets
@@ -147,6 +148,10 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
                             "periods with a known flux (concentration and Vd)"}),
          "mixing_ratio": (("species",), ratio),
          "measured": (("site", "species"), rows["measured"]),
+         "masked_note": (("site", "species"), np.asarray(rows.get(
+             "masked_note", np.full(rows["measured"].shape, ""))).astype(str),
+                         {"long_name": "why a species measured at the site has no value: "
+                          "every value masked by a check of the air reader (the flag)"}),
          "concentration": (("site", "period", "species"), conc,
                            {"units": "mol m-3", "long_name": "time-weighted mean concentration "
                             "over the covered hours (amount of species; ambient)"}),

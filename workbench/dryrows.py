@@ -191,7 +191,8 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
         deposition and emission parts of the net NH3 flux per NH3 sampling period (and, when
         ``pair_split`` moves pNH4 into NH3, ``"moved"``: the pNH4 rows with the
         exchange's Vd); ``"notes"``,
-        ``"measured"`` (site x species bool), ``"receptors"``, ``"times"``, ``"sites"``;
+        ``"measured"`` (site x species bool), ``"masked_note"`` (site x species str,
+        :func:`masked_notes`), ``"receptors"``, ``"times"``, ``"sites"``;
         ``"keys"``: the node key of each piece of rows (for :func:`.drycomponents.dry_components`;
         a bracket member's under ``("bracket", pair, how, member)``).
     """
@@ -261,11 +262,15 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
     out["measured"] = np.stack(
         [np.isin(sites, np.unique(air_v["site"].values[has_value(sp)]))
          if sp in air_v else np.zeros(len(sites), bool) for sp in species_list], -1)
+    out["masked_note"] = masked_notes(air.value.attrs, sites, species_list)
     # pair_split: the main components of a pair from the bracket's rows (_apply_split)
     out["split"] = split_pairs(options.pair_split, out, air_v, nodes)
     for pair, (into, other, _) in out["split"].items():
         k_in, k_out = species_list.index(into), species_list.index(other)
         out["measured"][:, k_in] &= out["measured"][:, k_out]    # the weaker member's
+        out["masked_note"][:, k_in] = np.where(out["masked_note"][:, k_in] == "",
+                                               out["masked_note"][:, k_out],
+                                               out["masked_note"][:, k_in])
     if "NH3" in out["species"] and all(k in nodes for k in NH3_EXCHANGE):
         inputs, dep = one(prepared, "NH3", "NH3_bidirectional")
         em = run("nh3_emission_rows", deps={"deposition": dep, "inputs": inputs,
@@ -278,4 +283,36 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
             _, node = one(air, moved[1], "NH3_bidirectional")
             out["nh3_exchange"]["moved"] = node.value[0]
             out["keys"]["nh3|moved"] = node.key
+    return out
+
+
+def masked_notes(attrs, sites, species) -> np.ndarray:
+    """Why each species has no value at each site though it was measured there: every
+    value masked by a check of the air reader (the air Dataset's attribute
+    :data:`workbench.io.samplecolumns.ALL_MASKED_ATTR`).
+
+    Parameters
+    ----------
+    attrs : dict
+        The air Dataset's attributes.
+    sites, species : sequence of str
+
+    Returns
+    -------
+    ndarray of str (site, species)
+        The reasons (``NH3 values look 1000x too high at this sampler: ng/m3 written
+        under a ug/m3 header?``); "" where the species has values at the site or was not
+        in its rows (not measured) and without the attribute (an air Dataset made
+        elsewhere: a grid, a test's table).
+    """
+    import json
+
+    from .io.samplecolumns import ALL_MASKED_ATTR
+    out = np.full((len(sites), len(species)), "", dtype=object)
+    gone = json.loads(attrs.get(ALL_MASKED_ATTR, "{}") or "{}")
+    where = {str(s): i for i, s in enumerate(sites)}
+    for k, sp in enumerate(species):
+        for site, why in gone.get(sp, {}).items():     # the few sites that lost all
+            if site in where:
+                out[where[site], k] = why
     return out

@@ -16,7 +16,7 @@ from .. import species as _species
 from ..errors import InputError, suggest
 from ..units import to_amount
 from . import plausible as _plausible
-from .common import check_intervals, check_sites, unit_error
+from .common import check_intervals, check_sites, join_reasons, unit_error
 from .table import RawTable
 
 
@@ -70,7 +70,7 @@ PRECIP_NEGATIVE_TOL_MG_L = 0.5
 
 
 def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero_ok=None,
-                    negative_tol_mg_l=None):
+                    negative_tol_mg_l=None, masked_why=None):
     """Parse species columns into amounts, with censoring. Returns dict of arrays.
 
     A missing-value code typed as a value (``-999``, ``9999``...) is masked and flagged;
@@ -80,7 +80,11 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero
     is censored as below detection, as a negative one, with a reason naming it, except
     on the rows of `zero_ok` (bool [n]: the dry weeks of a precipitation file, and rows
     dropped as exact repeats).  With `negative_tol_mg_l` (precipitation) a value below
-    minus that many mg/L of the species is masked with its reason.
+    minus that many mg/L of the species is masked with its reason.  A masked value is
+    never censored: a value below detection that a check masks (the limit of a sampler
+    judged in a unit 1000x smaller) is counted as masked, not as a detection limit.
+    With `masked_why` (a dict) each species' reason per masked row is put in it ("" on
+    the others).
     """
     data = {}
     for sp, name in cols.items():
@@ -95,21 +99,25 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero
             raise unit_error(tab, name, ValueError(f"a {kind.replace('_', ' ')}"),
                              " or ".join(k.replace("_", " ") for k in kinds_allowed))
         sentinel = ~cens & _plausible.sentinel_mask(raw)
-        ledger_parts.append(_sentinel_reasons(tab, name, sp, sentinel))
+        why_parts = [_sentinel_reasons(tab, name, sp, sentinel)]
         masked = sentinel
         if groups is not None:
             bad, why = _plausible.air_checks(sp, _plausible.as_ugm3(np.where(sentinel, np.nan, amount),
                                                                      kind, sp), cens, groups,
                                              unit=unit)
             masked = masked | bad
-            ledger_parts.append(why)
+            why_parts.append(why)
         if negative_tol_mg_l is not None:
             with np.errstate(invalid="ignore"):    # mol m-3 x kg mol-1 = kg m-3 = 1e3 mg/L
                 deep = (~cens & ~masked
                         & (amount * _species.get(sp).molar_mass * 1e3 < -negative_tol_mg_l))
-            ledger_parts.append(np.where(deep, f"{sp} negative beyond the blank tolerance "
-                                         f"-{negative_tol_mg_l:g} mg/L (masked)", ""))
+            why_parts.append(np.where(deep, f"{sp} negative beyond the blank tolerance "
+                                      f"-{negative_tol_mg_l:g} mg/L (masked)", ""))
             masked = masked | deep
+        ledger_parts.extend(why_parts)
+        if masked_why is not None:
+            masked_why[sp] = np.where(masked, join_reasons(why_parts), "").astype(object)
+        cens = cens & ~masked            # a masked limit is no detection limit
         amount = np.where(masked, np.nan, amount)
         neg = (~cens) & (amount < 0)
         zero = (~cens) & (amount == 0)
@@ -240,3 +248,55 @@ def _interval_table(path, catalogue, required):
     check_intervals(tab, start, end)
     samplers = tab.text("sampler_id") if tab.has("sampler_id") else np.full(n, "", object)
     return tab, n, sites, start, end, samplers
+
+
+#: Attribute of the air Dataset (JSON): species -> site -> why every value of the species
+#: at the site was masked, for the sites with masked values and none left (a sampler
+#: judged in ng/m3 under a ug/m3 header, say).  The budget's note of such a component
+#: says the species was measured and masked, not that it was not measured
+#: (:func:`workbench.dryrows.masked_notes`).
+ALL_MASKED_ATTR = "all_masked"
+#: Most distinct reasons named in one site's text of :data:`ALL_MASKED_ATTR` (our
+#: choice: the ledger, input_rows.csv, names every row's).
+ALL_MASKED_REASONS = 3
+
+
+def all_masked(conc, masked_why, sites, rows) -> str:
+    """:data:`ALL_MASKED_ATTR` of an air file as JSON.
+
+    Parameters
+    ----------
+    conc : dict
+        Species -> (value, censored, limit, kind), per row (:func:`_concentrations`).
+    masked_why : dict
+        Species -> the reason of each masked row ("" where not masked).
+    sites : ndarray of str
+        The site of each row.
+    rows : ndarray of bool
+        The rows that count (a dropped exact repeat does not).
+
+    Returns
+    -------
+    str
+        ``{"NH3": {"fell": "NH3 values look 1000x too high at this sampler: ..."}}``: the
+        distinct reasons without their ``(masked)``, joined by " and " (at most
+        :data:`ALL_MASKED_REASONS`, then how many more); "{}" when no site lost all.
+    """
+    import json
+
+    out = {}
+    sites = np.asarray(sites).astype(str)
+    for sp, why in masked_why.items():
+        v, c = conc[sp][0], conc[sp][1]
+        kept = pd.Series((~np.isnan(v) | c) & rows).groupby(sites).any()
+        hit = pd.Series((why != "") & rows).groupby(sites).any()
+        gone = hit.index[hit.to_numpy() & ~kept.reindex(hit.index).to_numpy()]
+        for site in gone:                 # the few sites that lost every value
+            texts = pd.unique(pd.Series(why[(sites == site) & rows & (why != "")])
+                              .str.replace(r" \(masked\)$", "", regex=True))
+            more = len(texts) - ALL_MASKED_REASONS
+            text = " and ".join(texts[:ALL_MASKED_REASONS]) + (
+                f" and {more} other reason{'s' if more > 1 else ''} (input_rows.csv)"
+                if more > 0 else "")
+            out.setdefault(sp, {})[str(site)] = text
+    return json.dumps(out, sort_keys=True)

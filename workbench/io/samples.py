@@ -25,8 +25,8 @@ from .ledger import Ledger
 from .samplerids import check_spellings, typo_notes
 from .shifted import check_shifted
 # the columns and cells of the sample files (defined here before)
-from .samplecolumns import (PERIOD_HINTS, PRECIP_NEGATIVE_TOL_MG_L, REQUIRED_EXAMPLES,  # noqa: F401
-                            _NOT_SPECIES, _TRACE_TEXTS, _concentrations, _flag_words,
+from .samplecolumns import (ALL_MASKED_ATTR, PERIOD_HINTS,  # noqa: F401
+                            PRECIP_NEGATIVE_TOL_MG_L, REQUIRED_EXAMPLES, _NOT_SPECIES, all_masked, _TRACE_TEXTS, _concentrations, _flag_words,
                             _interval_table, _mask_sentinels, _sentinel_reasons,
                             _species_columns, _to_amount_by_unit, _trace_depth_error)
 # the unit slips of the sample files (defined here before)
@@ -280,8 +280,9 @@ def read_air(path, catalogue, reference_state=None):
                              expected="an air concentration unit such as ug/m3 or ppb")
     parts = [repeat_why]
     groups = np.char.add(np.char.add(sites.astype(str), "\x1f"), samplers.astype(str))
+    masked_why = {}
     conc = _concentrations(tab, cols, ("amount_density", "mixing_ratio"), parts, n, groups,
-                           zero_ok=repeat)                     # a dropped repeat
+                           zero_ok=repeat, masked_why=masked_why)   # zero: a dropped repeat
     check_shifted(tab, {cols[sp]: ~np.isnan(v) | c for sp, (v, c, _, _) in conc.items()},
                   rows=~repeat, groups=groups, what="concentration")
     ref_text = tab.meta.get("reference_state", reference_state)
@@ -364,7 +365,8 @@ def read_air(path, catalogue, reference_state=None):
         if sp in methods:
             dvars[f"{sp}_method"] = ("period", methods[sp][keep].astype(str))
     ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path),
-                                  "reference_state": str(ref_text) if needs_ref else "none needed"})
+                                  "reference_state": str(ref_text) if needs_ref else "none needed",
+                                  ALL_MASKED_ATTR: all_masked(conc, masked_why, sites, ~repeat)})
     ledger.notes.extend(tab.unit_switch_notes + _air_slips(tab, ds, cols, keep))
     ledger.notes.extend(typo_notes(tab.path.name, sites[keep], samplers[keep], tab.lines[keep]))
     return ds, ledger

@@ -88,7 +88,10 @@ def bracket_line(years: xr.Dataset, derived, site, receptor, unit="kg/ha/yr",
     head = f"Dry N {_fmt(b['shown'])} {unit} ({shown})"
     if not np.isfinite(b["all_gas"]) or not np.isfinite(b["all_particle"]):
         gone = _unmeasured_members(years, site, receptor)
-        why = (f"{' and '.join(gone)} not measured at the site" if gone else
+        lost = _unmeasured_members(years, site, receptor, "every value masked")
+        said = ([f"{' and '.join(gone)} not measured at the site"] if gone else []) + (
+            [f"{' and '.join(lost)} measured, every value masked"] if lost else [])
+        why = (", ".join(said) if said else
                "a member of a pair has no data in them: budget.nc's bracket_*_note says "
                "which")
         return (f"{head}; gas/particle bracket not computed for these years ({why}); "
@@ -100,9 +103,11 @@ def bracket_line(years: xr.Dataset, derived, site, receptor, unit="kg/ha/yr",
             "faster.")
 
 
-def _unmeasured_members(years: xr.Dataset, site, receptor) -> list:
+def _unmeasured_members(years: xr.Dataset, site, receptor, reason="not measured") -> list:
     """Members of the gas/particle pairs (:data:`workbench.budget.PAIRS`) whose dry
-    component the budget notes as not measured at the site in every period."""
+    component the budget notes as not measured at the site in every period (`reason`
+    "every value masked": measured, each value masked by the air reader;
+    :func:`workbench.ui.summaries.component_reason`)."""
     from ..budget import PAIRS
     from .summaries import component_rates, component_reason
     comp = component_rates(years, site, receptor)
@@ -110,4 +115,4 @@ def _unmeasured_members(years: xr.Dataset, site, receptor) -> list:
     members = [m for pair in PAIRS.values() for m in pair]
     return [m for m in members
             if len(g := dry[dry["species"] == m])
-            and all(component_reason(n) == "not measured" for n in g["note"])]
+            and all(component_reason(n) == reason for n in g["note"])]

@@ -27,14 +27,21 @@ SPLIT_INTO = {"all_gas": 0, "all_particle": 1}
 #: deposition is counted in a bulk collector's wet ion (docs/budget.md).
 NOT_MEASURED = "not measured"
 IN_BULK_WET = "caught by the bulk collector"
+#: The start of the note of a species measured at the site whose every value the air
+#: reader masked (:data:`workbench.budgetstatus.ALL_MASKED_NOTE`; the flag follows).
+ALL_MASKED = "measured, every value masked"
 
 
 def component_reason(note) -> str:
-    """Short reason of a component without its own bar: ``"not measured"``, ``"in the
-    bulk wet"`` or ``""`` (none of the two), from the budget's component `note`."""
+    """Short reason of a component without its own bar: ``"not measured"``, ``"every
+    value masked"`` (measured, but the air reader masked each value: a sampler in ng/m3
+    under a ug/m3 header, say), ``"in the bulk wet"`` or ``""`` (none of these), from
+    the budget's component `note`."""
     note = str(note or "")
     if note.startswith(NOT_MEASURED):
         return "not measured"
+    if note.startswith(ALL_MASKED):
+        return "every value masked"
     if note.startswith(IN_BULK_WET):
         return "in the bulk wet"
     return ""
@@ -91,7 +98,10 @@ def no_effect_text(key, label, components: pd.DataFrame, collector="wet_only",
             reasons.append(f"the gas/particle split puts the {pair} pair all as {phase}: "
                            f"no {species} left, both members deposit with the Vd of {into}")
     if species is not None and species in missing:
-        reasons.append(f"no {species} concentrations here")
+        notes = dry.loc[dry["species"] == species, "note"] if "note" in dry else ()
+        masked = len(notes) and all(component_reason(n) == "every value masked" for n in notes)
+        reasons.append(f"every {species} value masked here (input_rows.csv says why)"
+                       if masked else f"no {species} concentrations here")
     if key == "wet.seasalt_tracer" and sulfate_basis == "total":
         reasons.append("the sulfate basis is total: the tracer only enters non-sea-salt "
                        "sulfate")
@@ -201,6 +211,8 @@ def cut_no_effect_text(group, parts, loads, cuts, mode="air_and_wet", missing=()
 VD_FACTOR = "vd_"
 #: Reason of a component without its own deposition, in a note's words.
 REASON_TEXT = {"not measured": "not measured at the site",
+               "every value masked": "measured at the site, every value masked "
+                                     "(input_rows.csv says why)",
                "in the bulk wet": "caught by the bulk collector, counted in its wet deposition"}
 
 

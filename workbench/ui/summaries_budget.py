@@ -189,6 +189,21 @@ def _nh3_not_measured(ds, pick) -> bool:
     return bool(len(notes)) and all(component_reason(n) == "not measured" for n in notes)
 
 
+def _nh3_masked(ds, pick) -> str:
+    """The flag of the air reader where the budget's note of the dry NH3 component says
+    "measured, every value masked" in every period of `ds` ("" otherwise)."""
+    if "note" not in ds.variables or "species" not in ds.variables:
+        return ""
+    sp, pw = pick("species").astype(str), pick("pathway").astype(str)
+    j = np.flatnonzero((sp == "NH3") & (pw == "dry"))
+    if not j.size:
+        return ""
+    notes = [str(n) for n in pick("note")[..., j[0]].reshape(-1)]
+    if not notes or not all(component_reason(n) == "every value masked" for n in notes):
+        return ""
+    return notes[0].split(": ", 1)[-1]
+
+
 def nh3_line(ds: xr.Dataset, site, receptor, unit="kg/ha/yr") -> str:
     """One sentence on the dry NH3 figure of the budget: the net exchange beside the
     deposition-only figure, or that NH3 is counted as deposition only.
@@ -206,6 +221,10 @@ def nh3_line(ds: xr.Dataset, site, receptor, unit="kg/ha/yr") -> str:
         if _nh3_not_measured(ds, pick):
             return ("Dry NH3: not measured at this site (no NH3 concentration in the air "
                     "file); the N totals leave it out (partial).")
+        lost = _nh3_masked(ds, pick)
+        if lost:
+            return (f"Dry NH3: measured at this site, every value masked ({lost}); the N "
+                    "totals leave it out (partial).")
         return "Dry NH3: no figure (no NH3 concentrations in these years)."
     mo = float(np.nanmean(only))
     if ds.attrs.get("nh3_figure") != "net" or not np.isfinite(net).any():
