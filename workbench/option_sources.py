@@ -55,6 +55,10 @@ WET = {
                           "(docs/methods_wet.md 3.3)"),
     "conductivity_tiers": ("from memory", f"{_GAW}: allowed absolute conductivity difference "
                            "by measured conductivity (docs/methods_wet.md 3.4)"),
+    "conductivity_difference_basis": ("from memory", f"{_GAW}: CD = 100 (calc - meas) / "
+                                      "meas, the form its tiers are set for; \"sum\" "
+                                      "divides by calc + meas, as the ion difference "
+                                      "does (docs/methods_wet.md 3.4)"),
     "bicarbonate": ("common practice", "HCO3- in equilibrium with atmospheric CO2 "
                     "counted among the anions; it matters only above pH ~5.5"),
     "co2_mixing_ratio": ("from memory", "~420 ppm, the global mean of the early 2020s "

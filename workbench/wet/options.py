@@ -26,6 +26,7 @@ _CHOICES = {
     "detection_limit": ("half", "limit", "zero"),
     "on_ion_balance_fail": ("flag", "exclude"),
     "on_conductivity_fail": ("flag", "exclude"),
+    "conductivity_difference_basis": ("measured", "sum"),
     "on_contamination": ("flag", "exclude"),
     "on_dust": ("flag", "exclude"),
     "on_capture_fail": ("flag", "exclude"),
@@ -85,6 +86,10 @@ class WetOptions:
     # --- ion balance and conductivity (WMO GAW Report No. 160, 2004; from memory) ---
     ion_balance_tiers: tuple = GAW_ION_BALANCE_TIERS
     conductivity_tiers: tuple = GAW_CONDUCTIVITY_TIERS
+    #: denominator of the conductivity difference: "measured" (the measured
+    #: conductivity, the form the GAW tiers above are set for; from memory) or "sum"
+    #: (calculated + measured, the form used until 2026-12, about twice as lenient).
+    conductivity_difference_basis: str = "measured"
     #: add HCO3- in equilibrium with CO2 to the anions (common practice).
     bicarbonate: bool = True
     #: CO2 dry mixing ratio [mol mol-1]; ~420 ppm, the global mean of the early
