@@ -95,9 +95,12 @@ WET = {
     "hydro_start_month": ("common practice", "October, the US water year"),
     "straddle": ("our choice", "share of hours: needs no meteorology; \"met\" weighs by "
                  "the hourly precipitation where it is given"),
-    "min_gauge_fraction": ("from memory", "90 %, the completeness criteria of "
-                           "precipitation chemistry networks"),
-    "min_coverage_fraction": ("from memory", f"90 %, {_GAW}, \"%PCL\""),
+    "min_gauge_fraction": ("from memory", f"90 %, {_GAW}, \"%PCL\" (the share of the "
+                           "period with a known precipitation depth, as we recall it); "
+                           "networks' annual criteria ask the same 90 % of the gauge"),
+    "min_coverage_fraction": ("our choice", "90 %: stricter than the 75 % of the period "
+                              "with valid samples of networks' annual criteria (from "
+                              "memory); docs/methods_wet.md 7"),
     "min_valid_precip_fraction": ("from memory", f"70 %, {_GAW}, \"%TP\""),
     "min_valid_samples": ("common practice", "1: a PWM needs at least one valid sample"),
     "period_fill": ("our choice", "none: a failed period stays failed unless the seasonal "

@@ -144,11 +144,12 @@ class WetOptions:
     #: how a sample that straddles a period boundary is shared: "hours" (share of its
     #: hours) or "met" (share of its hourly precipitation, falling back to hours).
     straddle: str = "hours"
-    #: fraction of the period with a valid gauge record [1]; 90 % (common practice of
-    #: monitoring networks, from memory).
+    #: fraction of the period with a valid gauge record [1]; 90 % (WMO GAW Report
+    #: No. 160 "%PCL", the share of the period with a known precipitation depth, as we
+    #: recall it; from memory).
     min_gauge_fraction: float = 0.90
-    #: fraction of the period covered by valid or dry samples [1]; 90 % (WMO GAW
-    #: Report No. 160 "%PCL", from memory).
+    #: fraction of the period covered by valid or dry samples [1]; 90 % (our choice,
+    #: stricter than the 75 % of networks' annual criteria, from memory).
     min_coverage_fraction: float = 0.90
     #: fraction of the gauge precipitation with valid chemistry [1]; 70 % (WMO GAW
     #: Report No. 160 "%TP", from memory).
