@@ -55,6 +55,10 @@ WET = {
                           "(docs/methods_wet.md 3.3)"),
     "conductivity_tiers": ("from memory", f"{_GAW}: allowed absolute conductivity difference "
                            "by measured conductivity (docs/methods_wet.md 3.4)"),
+    "conductivity_difference_basis": ("from memory", f"{_GAW}: CD = 100 (calc - meas) / "
+                                      "meas, the form its tiers are set for; \"sum\" "
+                                      "divides by calc + meas, as the ion difference "
+                                      "does (docs/methods_wet.md 3.4)"),
     "bicarbonate": ("common practice", "HCO3- in equilibrium with atmospheric CO2 "
                     "counted among the anions; it matters only above pH ~5.5"),
     "co2_mixing_ratio": ("from memory", "~420 ppm, the global mean of the early 2020s "
@@ -91,9 +95,12 @@ WET = {
     "hydro_start_month": ("common practice", "October, the US water year"),
     "straddle": ("our choice", "share of hours: needs no meteorology; \"met\" weighs by "
                  "the hourly precipitation where it is given"),
-    "min_gauge_fraction": ("from memory", "90 %, the completeness criteria of "
-                           "precipitation chemistry networks"),
-    "min_coverage_fraction": ("from memory", f"90 %, {_GAW}, \"%PCL\""),
+    "min_gauge_fraction": ("from memory", f"90 %, {_GAW}, \"%PCL\" (the share of the "
+                           "period with a known precipitation depth, as we recall it); "
+                           "networks' annual criteria ask the same 90 % of the gauge"),
+    "min_coverage_fraction": ("our choice", "90 %: stricter than the 75 % of the period "
+                              "with valid samples of networks' annual criteria (from "
+                              "memory); docs/methods_wet.md 7"),
     "min_valid_precip_fraction": ("from memory", f"70 %, {_GAW}, \"%TP\""),
     "min_valid_samples": ("common practice", "1: a PWM needs at least one valid sample"),
     "period_fill": ("our choice", "none: a failed period stays failed unless the seasonal "

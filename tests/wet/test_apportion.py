@@ -308,3 +308,31 @@ def test_a_trace_typed_in_the_gauge_column_is_refused_with_the_dry_week_advice(t
         w = wet_deposition(screen(samples), per).isel(site=0, period=0)
         got[depth] = (w["gauge_fraction"].item(), w["coverage_fraction"].item())
     assert got == {"0": (1.0, 1.0), "": (0.75, 0.75)}
+
+
+def test_partial_year_says_how_partial_in_its_reasons():
+    # A record that starts on Thu 31 Dec 2020 09:00 UTC (a weekly sample spanning New
+    # Year: 15 of its 168 h in 2020) and stops after 26 weeks: 2021 has
+    # 26 x 168 - 15 = 4353 h of 8760 with samples, 49.7 %. By the shares of hours
+    # (section 4) the year gets 153/168 of the first week's 10 mm.  Such a year must not
+    # read like an annual figure: its reasons say how much of the year is behind the
+    # number and what is asked (gauge 90 %, coverage 90 %; docs/methods_wet.md 7).
+    # Until 2026-12 they read "gauge record below minimum" without either number.
+    rows = []
+    for k in range(26):
+        s = pd.Timestamp("2020-12-31T09:00") + pd.Timedelta(days=7 * k)
+        rows.append(dict(start=str(s), end=str(s + pd.Timedelta(days=7)), gauge_depth=10.0,
+                         **_bal(20, 20, 10)))
+    per = P.make_periods("2020-01-01", "2022-01-01", "year")
+    wet = wet_deposition(screen(make_samples(rows, ions=IONS)), per).isel(site=0)
+    y2020, y2021 = wet.isel(period=0), wet.isel(period=1)
+    frac = (26 * 168 - 15) / 8760
+    assert y2021["gauge_fraction"].item() == pytest.approx(frac)
+    assert y2021["precipitation"].item() == pytest.approx(250.0 + 10 * 153 / 168)
+    assert y2020["precipitation"].item() == pytest.approx(10 * 15 / 168)
+    assert y2021["status"].item() == "flagged"
+    reasons = y2021["completeness_reasons"].item()
+    assert "gauge record below minimum (49.7 % of the period; minimum 90 %)" in reasons
+    assert "sample coverage below minimum (49.7 % of the period; minimum 90 %)" in reasons
+    # 2020 holds 15 h of samples: 0.2 % of its 8784 h
+    assert "(0.2 % of the period; minimum 90 %)" in y2020["completeness_reasons"].item()

@@ -93,9 +93,10 @@ def test_ion_balance_and_conductivity_pass_and_fail():
     assert sc["ion_balance_limit"].values[1] == 15
     assert sc["ion_balance_check"].values.tolist() == ["pass", "fail", "pass"]
     np.testing.assert_allclose(sc["conductivity_calc"].values[0], kappa, rtol=1e-9)
-    # kappa ~ 31 uS/cm, measured ~ 15 -> tier +-30 %; CD = 33 % fails
+    # kappa ~ 31 uS/cm, measured ~ 15 -> tier +-30 %; CD = 100 % fails
+    # (CD relative to the measured conductivity, WMO GAW Report No. 160, from memory)
     assert sc["conductivity_limit"].values[2] == 30
-    cd = 100 * (kappa - 0.5 * kappa) / (kappa + 0.5 * kappa)
+    cd = 100 * (kappa - 0.5 * kappa) / (0.5 * kappa)
     assert sc["conductivity_difference"].values[2] == pytest.approx(cd)
     assert sc["conductivity_check"].values.tolist() == ["pass", "pass", "fail"]
     # default: flag and keep
@@ -107,6 +108,30 @@ def test_ion_balance_and_conductivity_pass_and_fail():
                                                 on_conductivity_fail="exclude"))
     assert sc2["status"].values.tolist() == ["used", "excluded", "excluded"]
     assert sc2["chemistry_valid"].values.tolist() == [True, False, False]
+
+
+def test_conductivity_difference_relative_to_measured_gaw160():
+    # WMO GAW Report No. 160 (2004), Section 8 (from memory): CD% = 100 (calc - meas) /
+    # meas, with |CD| <= 20 % above 30 uS/cm.  The hand sample's calculated
+    # conductivity is 1.4 times the measured one: CD = 40 %, a failure.  Divided by
+    # calc + meas (the form used until 2026-12) it read 16.7 % and passed: with the same
+    # tiers that form passes calculated conductivities up to 1.5 times the measured.
+    heavy = {k: 3 * v for k, v in GOOD.items() if k != "pH"}
+    ce, an, kappa = _hand_sums(heavy, 4.3)
+    meas = kappa / 1.4
+    assert meas > 30
+    sc = screen(make_samples([_sample(conductivity=meas, pH=4.3, **heavy)]))
+    assert sc["conductivity_limit"].values[0] == 20
+    assert sc["conductivity_difference"].values[0] == pytest.approx(40.0, rel=1e-6)
+    assert sc["conductivity_check"].values[0] == "fail"
+    assert "conductivity" in sc["reasons"].values[0]
+    old = screen(make_samples([_sample(conductivity=meas, pH=4.3, **heavy)]),
+                 WetOptions(conductivity_difference_basis="sum"))
+    assert old["conductivity_difference"].values[0] == pytest.approx(100 * 0.4 / 2.4)
+    assert old["conductivity_check"].values[0] == "pass"
+    # the ratio each form passes at a 20 % limit: 1.2 and 1.5
+    assert qa.conductivity_difference(1.2, 1.0) == pytest.approx(20.0)
+    assert qa.conductivity_difference(1.5, 1.0, "sum") == pytest.approx(20.0)
 
 
 def test_dilute_sample_gets_wide_tolerance():

@@ -79,3 +79,12 @@ def test_unknown_tracer_is_refused():
         WetOptions(seasalt_tracer="K")
     with pytest.raises(ValueError, match="unknown sea-salt tracer"):
         seawater_ratio("SO4", "K")
+
+
+def test_sulfate_to_sodium_mass_ratio_of_seawater():
+    # SO4/Na by mass in seawater: 2.7124 / 10.7810 g/kg = 0.2516 (Millero et al. 2008,
+    # Table 4, from memory); our 0.0605 mol/mol (Keene et al. 1986) with the molar
+    # masses of periodictable gives 0.2528, within 1 %.
+    import periodictable as pt
+    m_so4 = pt.formula("SO4").mass
+    assert seawater_ratio("SO4") * m_so4 / pt.Na.mass == pytest.approx(0.2516, rel=0.01)

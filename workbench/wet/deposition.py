@@ -43,6 +43,18 @@ PERIOD_STATUSES = ("complete", "flagged", "filled", "missing")
 _UNIT_KG = {"SO4": "kg S ha-1", "NO3": "kg N ha-1", "NH4": "kg N ha-1"}
 
 
+def _short_label(label, fraction, of, minimum):
+    """`label` with the fraction found and the minimum asked, per cell [text].
+
+    >>> _short_label("gauge record below minimum", np.array([0.5111]), "of the period",
+    ...              0.9).tolist()
+    ['gauge record below minimum (51.1 % of the period; minimum 90 %)']
+    """
+    pct = np.char.mod("%.1f", 100.0 * np.nan_to_num(np.asarray(fraction, dtype=float)))
+    tail = f" % {of}; minimum {100.0 * minimum:g} %)"
+    return np.char.add(np.char.add(f"{label} (", pct), tail).astype(object)
+
+
 def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptions(),
                    met: xr.Dataset | None = None) -> xr.Dataset:
     """Precipitation-weighted means, completeness and wet deposition per site and period.
@@ -172,12 +184,17 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     missing = (n_samples == 0) | ~(gauge_hours > 0)
     wet = precip > 0
     fails = [
-        # a fraction equal to its minimum passes (to rounding: qa.falls_short)
-        (falls_short(gauge_fraction, opt.min_gauge_fraction), "gauge record below minimum"),
+        # a fraction equal to its minimum passes (to rounding: qa.falls_short); the
+        # reason says how much there is against how much is asked (section 7)
+        (falls_short(gauge_fraction, opt.min_gauge_fraction),
+         _short_label("gauge record below minimum", gauge_fraction,
+                      "of the period", opt.min_gauge_fraction)),
         (falls_short(coverage_fraction, opt.min_coverage_fraction),
-         "sample coverage below minimum"),
+         _short_label("sample coverage below minimum", coverage_fraction,
+                      "of the period", opt.min_coverage_fraction)),
         (wet & falls_short(vpf, opt.min_valid_precip_fraction),
-         "valid-chemistry precipitation below minimum"),
+         _short_label("valid-chemistry precipitation below minimum", vpf,
+                      "of the precipitation", opt.min_valid_precip_fraction)),
         (wet & (n_valid < opt.min_valid_samples), "too few valid samples"),
     ]
     reasons = np.full(shape, "", dtype=object)

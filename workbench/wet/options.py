@@ -26,6 +26,7 @@ _CHOICES = {
     "detection_limit": ("half", "limit", "zero"),
     "on_ion_balance_fail": ("flag", "exclude"),
     "on_conductivity_fail": ("flag", "exclude"),
+    "conductivity_difference_basis": ("measured", "sum"),
     "on_contamination": ("flag", "exclude"),
     "on_dust": ("flag", "exclude"),
     "on_capture_fail": ("flag", "exclude"),
@@ -85,6 +86,10 @@ class WetOptions:
     # --- ion balance and conductivity (WMO GAW Report No. 160, 2004; from memory) ---
     ion_balance_tiers: tuple = GAW_ION_BALANCE_TIERS
     conductivity_tiers: tuple = GAW_CONDUCTIVITY_TIERS
+    #: denominator of the conductivity difference: "measured" (the measured
+    #: conductivity, the form the GAW tiers above are set for; from memory) or "sum"
+    #: (calculated + measured, the form used until 2026-12, about twice as lenient).
+    conductivity_difference_basis: str = "measured"
     #: add HCO3- in equilibrium with CO2 to the anions (common practice).
     bicarbonate: bool = True
     #: CO2 dry mixing ratio [mol mol-1]; ~420 ppm, the global mean of the early
@@ -139,11 +144,12 @@ class WetOptions:
     #: how a sample that straddles a period boundary is shared: "hours" (share of its
     #: hours) or "met" (share of its hourly precipitation, falling back to hours).
     straddle: str = "hours"
-    #: fraction of the period with a valid gauge record [1]; 90 % (common practice of
-    #: monitoring networks, from memory).
+    #: fraction of the period with a valid gauge record [1]; 90 % (WMO GAW Report
+    #: No. 160 "%PCL", the share of the period with a known precipitation depth, as we
+    #: recall it; from memory).
     min_gauge_fraction: float = 0.90
-    #: fraction of the period covered by valid or dry samples [1]; 90 % (WMO GAW
-    #: Report No. 160 "%PCL", from memory).
+    #: fraction of the period covered by valid or dry samples [1]; 90 % (our choice,
+    #: stricter than the 75 % of networks' annual criteria, from memory).
     min_coverage_fraction: float = 0.90
     #: fraction of the gauge precipitation with valid chemistry [1]; 70 % (WMO GAW
     #: Report No. 160 "%TP", from memory).

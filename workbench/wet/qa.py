@@ -277,23 +277,42 @@ def conductivity_calculated(equivalents):
     return sum(terms[1:], terms[0]) * CONDUCTIVITY_FACTOR
 
 
-def conductivity_difference(calculated, measured):
+#: Denominators of the conductivity difference (:func:`conductivity_difference`).
+CONDUCTIVITY_DIFFERENCE_BASES = ("measured", "sum")
+
+
+def conductivity_difference(calculated, measured, basis: str = "measured"):
     """Conductivity difference CD [%].
 
     Parameters
     ----------
     calculated, measured : array_like
         [uS cm-1]
+    basis : {"measured", "sum"}
+        Denominator: the measured conductivity (default; the form to which the
+        acceptance tiers of WMO GAW Report No. 160 apply, from memory) or the sum of
+        the two (the form of the ion difference; used here until 2026-12).
 
     Notes
     -----
-    .. math:: CD = 100\\,\\frac{\\kappa_{calc} - \\kappa_{meas}}{\\kappa_{calc} + \\kappa_{meas}}
+    .. math:: CD = 100\\,\\frac{\\kappa_{calc} - \\kappa_{meas}}{\\kappa_{meas}}
+
+    (WMO GAW Report No. 160, 2004, Section 8, from memory), or with
+    :math:`\\kappa_{calc} + \\kappa_{meas}` in the denominator for ``basis="sum"``.
+    For a ratio :math:`k = \\kappa_{calc}/\\kappa_{meas}` the two read
+    :math:`100 (k - 1)` and :math:`100 (k - 1)/(k + 1)`: a limit of 20 % passes k up to
+    1.2 in the first form, up to 1.5 in the second.
 
     >>> round(float(conductivity_difference(12.0, 8.0)), 1)
+    50.0
+    >>> round(float(conductivity_difference(12.0, 8.0, "sum")), 1)
     20.0
     """
-    total = calculated + measured
-    return 100.0 * (calculated - measured) / _where(total > 0, total, np.nan)
+    if basis not in CONDUCTIVITY_DIFFERENCE_BASES:
+        raise ValueError(f"unknown conductivity difference basis {basis!r}; use "
+                         f"{' or '.join(CONDUCTIVITY_DIFFERENCE_BASES)}")
+    den = measured if basis == "measured" else calculated + measured
+    return 100.0 * (calculated - measured) / _where(den > 0, den, np.nan)
 
 
 def capture_ratio(sample_depth, gauge_depth, min_depth=0.0):

@@ -304,7 +304,7 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
     # --- conductivity -------------------------------------------------------------------
     k_calc = qa.conductivity_calculated(eqs)
     k_meas = _values(ds, "conductivity")
-    cdiff = qa.conductivity_difference(k_calc, k_meas)
+    cdiff = qa.conductivity_difference(k_calc, k_meas, opt.conductivity_difference_basis)
     cd_limit = qa.tier_limit(k_meas, opt.conductivity_tiers)
     cd_eval = np.isfinite(cdiff)
     cd_fail = cd_eval & qa.exceeds(np.abs(cdiff), cd_limit)
@@ -449,8 +449,9 @@ def screen(samples: xr.Dataset, options: WetOptions = WetOptions(), met: xr.Data
         "ion_balance_limit": (ib_limit, "percent", "allowed |ion difference|"),
         "ion_balance_check": (check(ib_eval, ib_fail), "", "ion balance check"),
         "conductivity_calc": (k_calc, "uS cm-1", "conductivity calculated at 25 degC"),
-        "conductivity_difference": (cdiff, "percent",
-                                    "conductivity difference 100 (calc - meas) / (calc + meas)"),
+        "conductivity_difference": (cdiff, "percent", "conductivity difference 100 (calc - "
+                                    "meas) / " + ("meas" if opt.conductivity_difference_basis
+                                                  == "measured" else "(calc + meas)")),
         "conductivity_limit": (cd_limit, "percent", "allowed |conductivity difference|"),
         "conductivity_check": (check(cd_eval, cd_fail), "", "conductivity check"),
         "snow_share": (share, "1", "share of precipitation in snow hours"),
