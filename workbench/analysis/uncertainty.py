@@ -141,7 +141,9 @@ def with_uncertainty(result, study, scenario):
     0``, the default); otherwise a copy whose ``table`` (budget.csv), ``derived``
     (summary.csv) and ``budget`` (budget.nc) carry the quantiles of
     :func:`monte_carlo`, and whose ``options["uncertainty"]`` holds them; the derived
-    sums get ``range_note`` (:func:`~.quantile_tables.summary_range_notes`).
+    sums get ``range_note`` (:func:`~.quantile_tables.summary_range_notes`).  With
+    ``explain_ranges`` the copy's ``range_shares`` holds each factor's share of the
+    ranges (:func:`.range_shares.range_shares`, range_shares.csv).
     """
     import dataclasses
     opt = (scenario.options.get("uncertainty") if scenario is not None else None)
@@ -153,7 +155,13 @@ def with_uncertainty(result, study, scenario):
     new.__dict__["table"] = add_quantiles(result.table, q, result.budget["annual_factor"].values)
     new.__dict__["derived"] = add_quantiles(result.derived, q).assign(
         range_note=summary_range_notes(result.budget))
-    new.budget.attrs["uncertainty"] = json.dumps(opt.to_dict(), sort_keys=True)
+    given = opt.to_dict()
+    if not given["explain_ranges"]:      # budget.nc as before the option existed
+        del given["explain_ranges"]
+    new.budget.attrs["uncertainty"] = json.dumps(given, sort_keys=True)
+    if opt.explain_ranges:               # range_shares.csv and the report's table
+        from .range_shares import range_shares
+        new.__dict__["range_shares"] = range_shares(result, study, opt)
     return new
 
 

@@ -1,0 +1,120 @@
+"""Where a run's ranges come from, in its outputs (``[uncertainty] explain_ranges``):
+range_shares.csv and the report's table of the largest factors per site.
+
+The numbers are those of :func:`.variance_shares.variance_shares` (docs/methods_uncertainty.md,
+"Where a range's width comes from"), for every period of the budget and for the span
+(the span's mean yearly rate, as budget.csv's ``span`` rows), with the run's own draws
+and seed: the ``all`` rows hold the quantiles of budget.csv.  Nothing is cached here:
+the linear layer reads the study's cached stages (the stage graph), and the shares are
+computed once per ``workbench run`` and kept on the run's result for the writers.
+
+Units: ``alone_p05`` ... ``alone_p95`` [kg ha-1 of S or N per period; kg ha-1 yr-1 for
+the span], shares [1].
+"""
+from __future__ import annotations
+
+import html
+
+import numpy as np
+import pandas as pd
+
+from .variance_shares import COLUMNS, variance_shares
+
+#: The totals whose shares the run writes (:data:`.quantile_tables.TOTALS`).
+TOTALS = ("S_dry", "N_dry", "S_total", "N_total")
+#: The totals of the report's table, and how it names them.
+REPORT_TOTALS = {"N_dry": "dry N", "S_dry": "dry S"}
+#: Factors per site, receptor and total in the report's table.
+REPORT_TOP = 3
+#: Below this log-variance share a factor is not shown in the report [1].
+REPORT_MIN_SHARE = 0.01
+#: What to read from the report's table (one sentence).
+READ_TEXT = ("Read it as where a range's width comes from: the factor with the largest "
+             "share is the one whose option (its GSD or relative SD in [uncertainty]) "
+             "narrows the range if it can be narrowed; a factor with a small share changes "
+             "little however well it is known.")
+
+
+def range_shares(result, study, options) -> pd.DataFrame:
+    """The rows of range_shares.csv: :data:`.variance_shares.COLUMNS` for every period of
+    the budget and the span of each site and receptor.
+
+    Parameters
+    ----------
+    result : workbench.pipeline.Result
+        The run (before its quantiles are added: the Datasets are the same).
+    study : workbench.pipeline.Study
+    options : UncertaintyOptions
+        With ``draws`` >= 2; the run's own, so the ``all`` rows are budget.csv's ranges.
+
+    Returns
+    -------
+    pandas.DataFrame
+        The periods' rows [kg ha-1] then the span's [kg ha-1 yr-1] of each site and
+        receptor, the factors in the order of the function (``all`` first, ``together``
+        last).
+    """
+    parts = [variance_shares(result, study, options, which, totals=TOTALS)
+             for which in ("budget", "span")]
+    out = pd.concat(parts, ignore_index=True)
+    keys = out[["site", "receptor"]].drop_duplicates()
+    order = {tuple(k): i for i, k in enumerate(keys.itertuples(index=False))}
+    pos = pd.Series([order[(s, r)] for s, r in zip(out["site"], out["receptor"])],
+                    index=out.index)
+    return out.iloc[np.argsort(pos.to_numpy(), kind="stable")].reset_index(drop=True)[
+        list(COLUMNS)]
+
+
+def largest_factors(shares: pd.DataFrame, top: int = REPORT_TOP) -> pd.DataFrame:
+    """The report's rows: per site, receptor and total of :data:`REPORT_TOTALS`, the span's
+    `top` factors by log-variance share (a Vd species' part named "of which"), at least
+    :data:`REPORT_MIN_SHARE`; a run without span rows (one period) has each period's.
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``site, receptor, period, total, factor, log-variance share, 5 %, 50 %, 95 %``
+        (the quantiles of the total with that factor alone drawn [kg ha-1 yr-1 for the
+        span, kg ha-1 for a period]).
+    """
+    span = shares["period"].astype(str) == "span"
+    if not span.any():                   # a run of one period has no span rows: its periods
+        span = pd.Series(True, index=shares.index)
+    s = shares[span & shares["total"].isin(list(REPORT_TOTALS))
+               & ~shares["factor"].isin(["all", "together"])]
+    s = s[s["log_variance_share"].to_numpy(float) >= REPORT_MIN_SHARE]
+    s = s.assign(_t=s["total"].map({t: i for i, t in enumerate(REPORT_TOTALS)}))
+    s = s.sort_values(["site", "receptor", "period", "_t", "log_variance_share"],
+                      ascending=[True, True, True, True, False], kind="stable")
+    s = s.groupby(["site", "receptor", "period", "_t"], sort=False).head(top)
+    named = [f"of which {f.split('.', 1)[1]}" if of else f
+             for f, of in zip(s["factor"], s["part_of"])]
+    return pd.DataFrame({"site": s["site"].to_numpy(), "receptor": s["receptor"].to_numpy(),
+                         "period": s["period"].astype(str).to_numpy(),
+                         "total": s["total"].map(REPORT_TOTALS).to_numpy(), "factor": named,
+                         "log-variance share": s["log_variance_share"].round(3).to_numpy(),
+                         "5 %": s["alone_p05"].round(2).to_numpy(),
+                         "50 %": s["alone_p50"].round(2).to_numpy(),
+                         "95 %": s["alone_p95"].round(2).to_numpy()})
+
+
+def report_section(shares, to_html) -> list:
+    """HTML parts of the report: a table per site of the largest factors of its dry N
+    and dry S span ranges; none when the shares were not computed (`shares` None)."""
+    if shares is None:
+        return []
+    rows = largest_factors(shares)
+    parts = ["<h2>Where the ranges' width comes from: the largest factors of dry N and "
+             "dry S [kg/ha/yr]</h2>",
+             "<p>Each drawn factor's share of the variance of the logarithm of the span's "
+             "total, and the 5-95 % range of the total with that factor alone drawn (the "
+             "other factors at their point value; range_shares.csv has every factor, "
+             "period and total, docs/methods_uncertainty.md). " + html.escape(READ_TEXT)
+             + " The shares explain the stated options; they do not make the ranges more "
+             "certain.</p>"]
+    for site, frame in rows.groupby("site", sort=False):
+        parts.append(f"<h3>{html.escape(str(site))}</h3>")
+        parts.append(to_html(frame.drop(columns="site")))
+    if rows.empty:
+        parts.append("<p>No factor holds 1 % or more of a dry N or dry S range.</p>")
+    return parts
