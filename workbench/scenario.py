@@ -187,14 +187,6 @@ def validate(raw: dict, path=None, text: str = "", require_inputs: bool = True,
                                 value=list(objects["uncertainty"].pair_shift(key[11:])),
                                 expected="[0, 0] (the split as measured), or a fixed "
                                 "[dry] nh3_acid_ratio (nh3_acid_ratio_from_air = false)")
-    unc = objects.get("uncertainty")
-    if unc is not None and unc.explain_ranges and unc.draws == 0:
-        raise ScenarioError("explain_ranges explains the Monte Carlo's ranges, and no draws "
-                            "are asked for", file=path,
-                            line=_line_of(lines, "uncertainty", "explain_ranges"),
-                            column="uncertainty.explain_ranges", value=True,
-                            expected="draws > 0 in [uncertainty] (e.g. draws = 1000), or "
-                            "explain_ranges = false")
     site_over = raw.get("sites", {})
     for sid, table in site_over.items():
         if not isinstance(table, dict):

@@ -106,19 +106,27 @@ def test_off_writes_nothing_new(tiny, tmp_path):
         assert "explain_ranges" not in nc.attrs["uncertainty"]
 
 
-def test_the_option_without_draws_is_one_located_message(tiny, tmp_path):
+def test_the_option_without_draws_writes_nothing_and_says_why(tiny, tmp_path):
+    """``explain_ranges = true`` with ``draws = 0``: no range to explain, no file; a run
+    note says so (a setting alone loads, as every setting the docs name must)."""
+    import json
+    from workbench.analysis.uncertainty import NO_DRAWS_TO_EXPLAIN
+    from workbench.cli import run_scenario
+    sc = tiny[0]
+    p = sc.path.parent / "no_draws.toml"
+    p.write_text(sc.path.read_text().replace(SECTION, "[uncertainty]\nexplain_ranges = true"))
+    written, _, _ = run_scenario(p, tmp_path / "run", quiet=True)
+    assert "range_shares.csv" not in written
+    prov = json.loads(written["provenance.json"].read_text())
+    assert NO_DRAWS_TO_EXPLAIN in prov["run_notes"]
+
+
+def test_a_value_not_true_or_false_is_one_located_message(tiny, tmp_path):
     from workbench.errors import ScenarioError
     from workbench.scenario import load_scenario
-    sc = tiny[0]
-    p = tmp_path / "no_draws.toml"
-    p.write_text(sc.path.read_text().replace(SECTION, "[uncertainty]\nexplain_ranges = true"))
-    with pytest.raises(ScenarioError) as err:
-        load_scenario(p)
-    text = str(err.value)
-    assert "uncertainty.explain_ranges" in text and "draws > 0" in text
-    assert "no_draws.toml" in text
-    p.write_text(sc.path.read_text().replace(SECTION, "[uncertainty]\ndraws = 5\n"
-                                             "explain_ranges = 1"))
+    p = tmp_path / "bad.toml"
+    p.write_text(tiny[0].path.read_text().replace(SECTION, "[uncertainty]\ndraws = 5\n"
+                                                  "explain_ranges = 1"))
     with pytest.raises(ScenarioError, match=r"uncertainty\.explain_ranges"):
         load_scenario(p)
 

@@ -134,6 +134,12 @@ def add_quantiles(obj, q: BudgetQuantiles | None, annual_factor=None):
     return obj.assign(summary_dataset(q).data_vars)
 
 
+#: The run note of ``explain_ranges = true`` without draws (nothing to explain).
+NO_DRAWS_TO_EXPLAIN = ("[uncertainty] explain_ranges = true, and draws = 0: there is no "
+                       "Monte Carlo range to explain, so range_shares.csv is not written "
+                       "(set draws, e.g. 1000)")
+
+
 def with_uncertainty(result, study, scenario):
     """`result` with the quantiles in its table, derived sums and budget (for the writers).
 
@@ -147,6 +153,8 @@ def with_uncertainty(result, study, scenario):
     """
     import dataclasses
     opt = (scenario.options.get("uncertainty") if scenario is not None else None)
+    if opt is not None and opt.draws == 0 and opt.explain_ranges:
+        return dataclasses.replace(result, notes=[*result.notes, NO_DRAWS_TO_EXPLAIN])
     if opt is None or opt.draws == 0:
         return result
     q = monte_carlo(result, study, opt)
