@@ -4,20 +4,25 @@ range_shares.csv and the report's table of the largest factors per site.
 The numbers are those of :func:`.variance_shares.variance_shares` (docs/methods_uncertainty.md,
 "Where a range's width comes from"), for every period of the budget and for the span
 (the span's mean yearly rate, as budget.csv's ``span`` rows), with the run's own draws
-and seed: the ``all`` rows hold the quantiles of budget.csv.  Nothing is cached here:
-the linear layer reads the study's cached stages (the stage graph), and the shares are
-computed once per ``workbench run`` and kept on the run's result for the writers.
+and seed: the ``all`` rows hold the quantiles of budget.csv.  Nothing is cached here
+by hand: the linear layer reads the study's cached stages, a run computes the shares
+once and keeps them on its result for the writers, and an app's shares of one site are
+the stage ``range_shares`` of its session's graph (:func:`site_shares`: keyed by the
+declared ``[uncertainty]`` fields, the site's study and the run's budget).
 
 Units: ``alone_p05`` ... ``alone_p95`` [kg ha-1 of S or N per period; kg ha-1 yr-1 for
 the span], shares [1].
 """
 from __future__ import annotations
 
+import dataclasses
 import html
 
 import numpy as np
 import pandas as pd
 
+from ..graph import Node, input_node, stage
+from .uncertainty_options import UncertaintyOptions
 from .variance_shares import COLUMNS, variance_shares
 
 #: The totals whose shares the run writes (:data:`.quantile_tables.TOTALS`).
@@ -33,6 +38,51 @@ READ_TEXT = ("Read it as where a range's width comes from: the factor with the l
              "share is the one whose option (its GSD or relative SD in [uncertainty]) "
              "narrows the range if it can be narrowed; a factor with a small share changes "
              "little however well it is known.")
+
+
+#: The ``[uncertainty]`` fields the shares depend on (every one but ``explain_ranges``,
+#: which asks for them in a run).
+SHARE_FIELDS = tuple(f.name for f in dataclasses.fields(UncertaintyOptions)
+                     if f.name != "explain_ranges")
+
+
+@stage("range_shares", reads={"uncertainty": SHARE_FIELDS})
+def _site_shares_stage(o, study, run, site, overrides):
+    """each drawn factor's share of one site's Monte Carlo ranges, every period and total
+    (analysis.range_shares.site_shares: an app's button; variance_shares)"""
+    opt = UncertaintyOptions(**{n: getattr(o.uncertainty, n) for n in SHARE_FIELDS})
+    return variance_shares(run, study, opt, "budget", sites=[site], totals=TOTALS,
+                           overrides=overrides)
+
+
+def site_shares(graph, study, result, site, options, overrides=None) -> pd.DataFrame:
+    """The shares of one site's ranges in every period of `result` (the stage
+    ``range_shares`` of `graph`: asked again with the same options, study and run, the
+    table is not computed again).
+
+    Parameters
+    ----------
+    graph : workbench.graph.Graph
+        The graph of `study` (an app's session graph).
+    study : workbench.pipeline.Study
+    result : workbench.pipeline.Result
+        A run of `study` (its ``keys["budget"]`` names its budget in the graph).
+    site : str
+    options : UncertaintyOptions
+        With ``draws`` >= 2.
+    overrides : dict, optional
+        The site overrides `result` was run with.
+
+    Returns
+    -------
+    pandas.DataFrame
+        :data:`.variance_shares.COLUMNS` of the site (``which="budget"``: each period of
+        `result` [kg ha-1]).
+    """
+    return graph.run("range_shares", options={"uncertainty": options},
+                     deps={"study": input_node("study", study.token, study),
+                           "run": Node(result.keys["budget"], result)},
+                     params={"site": str(site), "overrides": overrides or {}}).value
 
 
 def range_shares(result, study, options) -> pd.DataFrame:
