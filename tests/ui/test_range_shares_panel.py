@@ -46,6 +46,10 @@ def test_display_orders_factors_and_names_parts():
                             "  of which NO2", ROW_NAMES["together"]]
     assert "5 % alone [kg N/ha]" in shown.columns
     assert shares_display(s, "grass", "2021", "S_dry").empty
+    # an N species' part is not listed under a total of S
+    s_dry = s.assign(total="S_dry")
+    assert _rows(shares_display(s_dry, "grass", "2021", "S_dry")) == [
+        ROW_NAMES["all"], "vd_site_gsd", "vd_gsd", ROW_NAMES["together"]]
 
 
 def test_nothing_is_computed_before_the_button(app):

@@ -161,7 +161,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
                           widgets.HBox([widgets.VBox(list(self.cut_w.values())), self.mode_w],
                                        layout=widgets.Layout(flex_flow="row wrap")),
                           self.range_w, self.progress, self.effect_w, self.text_w, page(self.fig),
-                          self.table_w, self.shares_w])
+                          self.shares_w, self.table_w])
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
         self.figure_export = FigureExport(
             lambda: {f"{self.site_w.value} {self.year_w.value}": self.fig}, "critical-loads")

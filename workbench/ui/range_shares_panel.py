@@ -17,6 +17,7 @@ import numpy as np
 import pandas as pd
 
 from ..analysis.range_shares import READ_TEXT
+from ..species import SPECIES
 from .controls import table_html
 
 #: The totals offered, as shown -> ``total`` of the shares.
@@ -47,7 +48,8 @@ def shares_display(shares: pd.DataFrame, receptor, period, total) -> pd.DataFram
     Returns
     -------
     pandas.DataFrame
-        ``factor`` (a Vd species' part as "of which <species>"), the shares of the
+        ``factor`` (a Vd species' part as "of which <species>", the species of the
+        total's element only), the shares of the
         log-variance and of the variance [1], the 5, 50 and 95 % of the total with that
         factor alone drawn [the unit of `shares`, in the headings]; the factors by
         log-variance share, largest first, between the ``all`` and ``together`` rows.
@@ -58,6 +60,11 @@ def shares_display(shares: pd.DataFrame, receptor, period, total) -> pd.DataFram
         return pd.DataFrame()
     unit = str(s["unit"].iloc[0]).replace(" ha-1", "/ha").replace(" yr-1", "/yr")
     unit = f"kg {total[0]}/ha" if unit == "kg/ha" else f"kg {total[0]}/ha/yr"
+    # a Vd species' part of the total's element only (dry S lists no NH3 part)
+    species = s["factor"].str.split(".", n=1).str[1]
+    other = species.notna() & (species.map(lambda sp: getattr(SPECIES.get(sp), "element",
+                                                               None)) != total[0])
+    s = s[~other]
     named = s["factor"].isin(list(ROW_NAMES))
     part = s["part_of"].fillna("").astype(str) != ""
     main = s[~named & ~part].sort_values("log_variance_share", ascending=False, kind="stable")
