@@ -57,6 +57,10 @@ def test_the_shares_rows_add_up_to_the_all_rows(explained):
     parts = shares[shares["part_of"].notna()]
     assert set(parts["part_of"]) <= {"vd_gsd"}
     assert (parts["factor"].str.startswith("vd_gsd.")).all()
+    # a part is listed under its own element's totals only (no SO2 part of dry N)
+    from workbench.species import SPECIES
+    assert all(SPECIES[f.split(".")[1]].element == t[0]
+               for f, t in zip(parts["factor"], parts["total"]))
 
 
 def test_the_all_rows_are_the_runs_own_ranges(explained):

@@ -22,6 +22,7 @@ import numpy as np
 import pandas as pd
 
 from ..graph import Node, input_node, stage
+from ..species import SPECIES
 from .uncertainty_options import UncertaintyOptions
 from .variance_shares import COLUMNS, variance_shares
 
@@ -40,6 +41,18 @@ READ_TEXT = ("Read it as where a range's width comes from: the factor with the l
              "little however well it is known.")
 
 
+def of_own_element(shares: pd.DataFrame) -> pd.DataFrame:
+    """`shares` without the rows of a Vd species' part (``vd_gsd.<species>``) under a
+    total of the other element (an NH3 part of dry S: share 0, as the function computes
+    the parts of both elements for every total); the sums are unchanged (the parts are
+    not counted in them)."""
+    species = shares["factor"].astype(str).str.split(".", n=1).str[1]
+    element = species.map(lambda sp: getattr(SPECIES.get(sp), "element", None)
+                          if isinstance(sp, str) else None)
+    other = species.notna() & (element != shares["total"].astype(str).str[0])
+    return shares[~other]
+
+
 #: The ``[uncertainty]`` fields the shares depend on (every one but ``explain_ranges``,
 #: which asks for them in a run).
 SHARE_FIELDS = tuple(f.name for f in dataclasses.fields(UncertaintyOptions)
@@ -51,8 +64,9 @@ def _site_shares_stage(o, study, run, site, overrides):
     """each drawn factor's share of one site's Monte Carlo ranges, every period and total
     (analysis.range_shares.site_shares: an app's button; variance_shares)"""
     opt = UncertaintyOptions(**{n: getattr(o.uncertainty, n) for n in SHARE_FIELDS})
-    return variance_shares(run, study, opt, "budget", sites=[site], totals=TOTALS,
-                           overrides=overrides)
+    return of_own_element(variance_shares(run, study, opt, "budget", sites=[site],
+                                          totals=TOTALS, overrides=overrides)
+                          ).reset_index(drop=True)
 
 
 def site_shares(graph, study, result, site, options, overrides=None) -> pd.DataFrame:
@@ -102,11 +116,12 @@ def range_shares(result, study, options) -> pd.DataFrame:
     pandas.DataFrame
         The periods' rows [kg ha-1] then the span's [kg ha-1 yr-1] of each site and
         receptor, the factors in the order of the function (``all`` first, ``together``
-        last).
+        last); a Vd species' part under its own element's totals only
+        (:func:`of_own_element`).
     """
     parts = [variance_shares(result, study, options, which, totals=TOTALS)
              for which in ("budget", "span")]
-    out = pd.concat(parts, ignore_index=True)
+    out = of_own_element(pd.concat(parts, ignore_index=True)).reset_index(drop=True)
     keys = out[["site", "receptor"]].drop_duplicates()
     order = {tuple(k): i for i, k in enumerate(keys.itertuples(index=False))}
     pos = pd.Series([order[(s, r)] for s, r in zip(out["site"], out["receptor"])],

@@ -16,8 +16,7 @@ import ipywidgets as widgets
 import numpy as np
 import pandas as pd
 
-from ..analysis.range_shares import READ_TEXT
-from ..species import SPECIES
+from ..analysis.range_shares import READ_TEXT, of_own_element
 from .controls import table_html
 
 #: The totals offered, as shown -> ``total`` of the shares.
@@ -60,11 +59,7 @@ def shares_display(shares: pd.DataFrame, receptor, period, total) -> pd.DataFram
         return pd.DataFrame()
     unit = str(s["unit"].iloc[0]).replace(" ha-1", "/ha").replace(" yr-1", "/yr")
     unit = f"kg {total[0]}/ha" if unit == "kg/ha" else f"kg {total[0]}/ha/yr"
-    # a Vd species' part of the total's element only (dry S lists no NH3 part)
-    species = s["factor"].str.split(".", n=1).str[1]
-    other = species.notna() & (species.map(lambda sp: getattr(SPECIES.get(sp), "element",
-                                                               None)) != total[0])
-    s = s[~other]
+    s = of_own_element(s)            # a Vd species' part of the total's element only
     named = s["factor"].isin(list(ROW_NAMES))
     part = s["part_of"].fillna("").astype(str) != ""
     main = s[~named & ~part].sort_values("log_variance_share", ascending=False, kind="stable")
@@ -118,7 +113,8 @@ class RangeSharesPanel(widgets.VBox):
         self.total_w.observe(lambda _: self.show(), "value")
         super().__init__([widgets.HBox([self.button, self.total_w],
                                        layout=widgets.Layout(flex_flow="row wrap")),
-                          self.note_w, self.table_w])
+                          self.note_w, self.table_w],
+                         layout=widgets.Layout(margin="0 0 16px 0"))   # apart from the next table
         self.add_class("wb-range-shares")
 
     def clear(self):
