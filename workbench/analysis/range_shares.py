@@ -177,9 +177,10 @@ def report_section(shares, to_html) -> list:
              "period and total, docs/methods_uncertainty.md). " + html.escape(READ_TEXT)
              + " The shares explain the stated options; they do not make the ranges more "
              "certain.</p>"]
+    drop = ["site"] + (["period"] if (rows["period"] == "span").all() else [])
     for site, frame in rows.groupby("site", sort=False):
         parts.append(f"<h3>{html.escape(str(site))}</h3>")
-        parts.append(to_html(frame.drop(columns="site")))
+        parts.append(to_html(frame.drop(columns=drop)))
     if rows.empty:
         parts.append("<p>No factor holds 1 % or more of a dry N or dry S range.</p>")
     return parts
