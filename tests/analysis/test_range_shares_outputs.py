@@ -110,15 +110,18 @@ def test_off_writes_nothing_new(tiny, tmp_path):
         assert "explain_ranges" not in nc.attrs["uncertainty"]
 
 
-def test_the_option_without_draws_writes_nothing_and_says_why(tiny, tmp_path):
-    """``explain_ranges = true`` with ``draws = 0``: no range to explain, no file; a run
-    note says so (a setting alone loads, as every setting the docs name must)."""
+@pytest.mark.parametrize("draws", [0, 1])
+def test_the_option_without_draws_writes_nothing_and_says_why(tiny, tmp_path, draws):
+    """``explain_ranges = true`` with ``draws`` 0 or 1: no range to explain (no
+    variance), no file; a run note says so (a setting alone loads, as every setting the
+    docs name must)."""
     import json
     from workbench.analysis.uncertainty import NO_DRAWS_TO_EXPLAIN
     from workbench.cli import run_scenario
     sc = tiny[0]
-    p = sc.path.parent / "no_draws.toml"
-    p.write_text(sc.path.read_text().replace(SECTION, "[uncertainty]\nexplain_ranges = true"))
+    p = sc.path.parent / f"no_draws_{draws}.toml"
+    p.write_text(sc.path.read_text().replace(
+        SECTION, f"[uncertainty]\ndraws = {draws}\nexplain_ranges = true"))
     written, _, _ = run_scenario(p, tmp_path / "run", quiet=True)
     assert "range_shares.csv" not in written
     prov = json.loads(written["provenance.json"].read_text())

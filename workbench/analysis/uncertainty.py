@@ -134,8 +134,8 @@ def add_quantiles(obj, q: BudgetQuantiles | None, annual_factor=None):
     return obj.assign(summary_dataset(q).data_vars)
 
 
-#: The run note of ``explain_ranges = true`` without draws (nothing to explain).
-NO_DRAWS_TO_EXPLAIN = ("[uncertainty] explain_ranges = true, and draws = 0: there is no "
+#: The run note of ``explain_ranges = true`` with fewer than 2 draws (no variance).
+NO_DRAWS_TO_EXPLAIN = ("[uncertainty] explain_ranges = true, and draws < 2: there is no "
                        "Monte Carlo range to explain, so range_shares.csv is not written "
                        "(set draws, e.g. 1000)")
 
@@ -153,8 +153,8 @@ def with_uncertainty(result, study, scenario):
     """
     import dataclasses
     opt = (scenario.options.get("uncertainty") if scenario is not None else None)
-    if opt is not None and opt.draws == 0 and opt.explain_ranges:
-        return dataclasses.replace(result, notes=[*result.notes, NO_DRAWS_TO_EXPLAIN])
+    if opt is not None and opt.draws < 2 and opt.explain_ranges:
+        result = dataclasses.replace(result, notes=[*result.notes, NO_DRAWS_TO_EXPLAIN])
     if opt is None or opt.draws == 0:
         return result
     q = monte_carlo(result, study, opt)
@@ -167,7 +167,7 @@ def with_uncertainty(result, study, scenario):
     if not given["explain_ranges"]:      # budget.nc as before the option existed
         del given["explain_ranges"]
     new.budget.attrs["uncertainty"] = json.dumps(given, sort_keys=True)
-    if opt.explain_ranges:               # range_shares.csv and the report's table
+    if opt.explain_ranges and opt.draws >= 2:       # range_shares.csv, the report's table
         from .range_shares import range_shares
         new.__dict__["range_shares"] = range_shares(result, study, opt)
     return new

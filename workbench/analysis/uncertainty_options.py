@@ -178,8 +178,9 @@ class UncertaintyOptions:
         (:func:`workbench.analysis.variance_shares.variance_shares`), and the report a
         table of the largest factors per site.  It draws every site once more per
         drawn factor (and Vd species), about as long as the Monte Carlo again for each;
-        False (default) writes nothing more.  Needs ``draws`` > 0 (it explains their
-        range).  The draws and the quantiles are the same either way.
+        False (default) writes nothing more.  Needs ``draws`` >= 2 (it explains their
+        range; with fewer a run note says so).  The draws and the quantiles are the same
+        either way.
     """
 
     draws: int = 0
