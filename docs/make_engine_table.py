@@ -16,6 +16,7 @@ import workbench.drycomponents  # noqa: E402,F401  (declares period_shares; impo
 #   workbench.dryrows, which declares the pieces of the dry rows)
 import workbench.drydep.core  # noqa: E402,F401  (declares the velocity steps)
 import workbench.stages  # noqa: E402,F401
+import workbench.analysis.range_shares  # noqa: E402,F401  (declares range_shares)
 from workbench.budget import BudgetOptions  # noqa: E402
 from workbench.drydep import DryOptions  # noqa: E402
 from workbench.graph import STAGES, unread_fields  # noqa: E402
@@ -26,7 +27,8 @@ DOC = Path(__file__).resolve().parent / "engine.md"
 ORDER = ("periods", "sample_flags", "screen", "wet", "surfaces", "micromet", "canopy_state", "gas_vd",
          "particle_mode_vd", "site_subset", "velocities", "wanted_pairs", "vd_content", "hour_slots", "vd_fill", "vd_axes", "air_basis", "pair_air",
          "air_content", "flux_inputs", "species_rows", "nh3_emission_rows", "dry_rows",
-         "period_shares", "dry_components", "season_coverage", "budget", "derived", "site_study", "app_run")
+         "period_shares", "dry_components", "season_coverage", "budget", "derived", "site_study", "app_run",
+         "range_shares")
 CLASSES = {"wet": WetOptions, "dry": DryOptions, "budget": BudgetOptions}
 
 

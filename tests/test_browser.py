@@ -88,6 +88,7 @@ def lab(tmp_path_factory, token):
     params = {"site_budget": f'SCENARIO = r"{one}"\nSITE = "ridge"\nYEARS = (2021, 2021)',
               "sensitivity": f'SCENARIO = r"{one}"\nSITE = "ridge"\nYEARS = (2021, 2021)',
               "network_overview": f'SCENARIO = r"{two}"\nYEARS = (2021, 2021)',
+              "critical_loads": f'SCENARIO = r"{two}"\nSITE = "ridge"\nYEARS = (2021, 2021)',
               "grid_maps": "SCENARIO = None\nPERIOD = 0"}
     for name, text in params.items():
         nb = nbformat.read(NOTEBOOKS / f"{name}.ipynb", as_version=4)
@@ -384,6 +385,41 @@ def test_sensitivity_in_a_real_browser(lab, token, page, tmp_path):
                         ".map(l => l.innerText)")
     assert cut == [], cut
     _screenshot(page, tmp_path, "sensitivity")
+    _close_sessions(lab, token)
+
+
+def test_critical_loads_range_shares_in_a_real_browser(lab, token, page, tmp_path):
+    """The range on, then the button "Where does the range come from?": a table of each
+    drawn factor's share of the shown range, whole in the page; the total chosen changes
+    its rows (workbench.ui.range_shares_panel)."""
+    from workbench.ui.range_shares_panel import BUTTON_TEXT, ROW_NAMES
+    _run_all(page, lab, token, "critical_loads")
+    page.wait_for_selector(".jp-OutputArea .js-plotly-plot")
+    _no_javascript_errors(page)
+    assert page.locator(".wb-range-shares").count() == 1
+    assert not page.locator(".wb-range-shares").is_visible()       # shown with the range
+    page.locator(".jp-OutputArea .widget-checkbox input").first.check()
+    page.locator(".wb-range-shares").wait_for(state="visible")
+    button = page.locator(".wb-range-shares .widget-button", has_text=BUTTON_TEXT)
+    button.wait_for(state="visible")
+    button.click()
+    table = page.locator(".wb-range-shares table")
+    table.wait_for(state="visible", timeout=PAGE_TIMEOUT_MS)
+    text = table.inner_text()
+    assert ROW_NAMES["all"] in text and "vd_gsd" in text and "share of the log-variance" in text
+    assert "kg N/ha" in text
+    # nothing cut: the button's text whole, the table inside the output area
+    cut = page.evaluate("() => [...document.querySelectorAll('.wb-range-shares .widget-button')]"
+                        ".filter(b => b.scrollWidth > b.clientWidth + 1).map(b => b.innerText)")
+    assert cut == []
+    area = page.locator(".jp-OutputArea-output .jupyter-widgets").first.bounding_box()
+    box = page.locator(".wb-range-shares").bounding_box()
+    assert box["x"] + box["width"] <= area["x"] + area["width"] + 1
+    page.locator(".wb-range-shares .widget-dropdown select").select_option(label="dry S")
+    page.wait_for_function("() => /kg S\\/ha/.test(document.querySelector("
+                           "'.wb-range-shares table')?.innerText || '')")
+    _no_javascript_errors(page)
+    _screenshot(page, tmp_path, "critical_loads_range_shares")
     _close_sessions(lab, token)
 
 

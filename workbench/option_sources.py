@@ -266,6 +266,9 @@ UNCERTAINTY = {
     "pair_shift_ammonium": ("our choice", "[0, 0]: off; the ammonium lost with the "
                             "nitrate (the same salt) moves NH4+ to NH3 on the back filter, "
                             "from memory as for pair_shift_nitrate"),
+    "explain_ranges": ("our choice", "off: each drawn factor is drawn once more alone, about "
+                       "the cost of the Monte Carlo again per factor; asked for when a "
+                       "range's width is to be explained"),
 }
 
 SENSITIVITY = {

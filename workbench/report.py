@@ -422,6 +422,8 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     parts.extend(report_section(t, _table_html,
                                 getattr(result.options.get("uncertainty"), "options", None),
                                 bulk_state(result), nh3_gamma_state(result)))
+    from .analysis.range_shares import report_section as shares_section
+    parts.extend(shares_section(getattr(result, "range_shares", None), _table_html))
     parts.append("<h2>Dry nitrogen: the gas/particle bracket [kg N/ha per period]</h2>")
     parts.append("<p>Ammonium nitrate on filters shifts mass between HNO3 and pNO3 and between "
                  "NH3 and pNH4; HNO3 deposits far faster than pNO3. The bracket puts each pair "

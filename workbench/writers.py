@@ -420,6 +420,16 @@ def write_caution_file(result, study, scenario, path):
     return write_folder_caution(Path(path).parent, atomic_write)
 
 
+def write_range_shares_csv(result, study, scenario, path):
+    """range_shares.csv with ``[uncertainty] explain_ranges`` (each drawn factor's share
+    of every range, :mod:`workbench.analysis.range_shares`); None otherwise."""
+    shares = getattr(result, "range_shares", None)
+    if shares is None:
+        return None
+    _csv(shares, path)
+    return path
+
+
 #: The files of a run folder, in the order they are written: (file name, writer).  A
 #: writer is called as ``writer(result, study, scenario, path)`` and returns the path it
 #: wrote, None when it has nothing to write, or the list of names of the several files
@@ -435,6 +445,7 @@ OUTPUT_STEPS = [
     ("input_rows.csv", write_input_rows),
     ("CAUTION.txt", write_caution_file),
     ("analysis tables", write_analysis_tables),
+    ("range_shares.csv", write_range_shares_csv),
 ]
 
 

@@ -134,6 +134,12 @@ def add_quantiles(obj, q: BudgetQuantiles | None, annual_factor=None):
     return obj.assign(summary_dataset(q).data_vars)
 
 
+#: The run note of ``explain_ranges = true`` with fewer than 2 draws (no variance).
+NO_DRAWS_TO_EXPLAIN = ("[uncertainty] explain_ranges = true, and draws < 2: there is no "
+                       "Monte Carlo range to explain, so range_shares.csv is not written "
+                       "(set draws, e.g. 1000)")
+
+
 def with_uncertainty(result, study, scenario):
     """`result` with the quantiles in its table, derived sums and budget (for the writers).
 
@@ -141,10 +147,14 @@ def with_uncertainty(result, study, scenario):
     0``, the default); otherwise a copy whose ``table`` (budget.csv), ``derived``
     (summary.csv) and ``budget`` (budget.nc) carry the quantiles of
     :func:`monte_carlo`, and whose ``options["uncertainty"]`` holds them; the derived
-    sums get ``range_note`` (:func:`~.quantile_tables.summary_range_notes`).
+    sums get ``range_note`` (:func:`~.quantile_tables.summary_range_notes`).  With
+    ``explain_ranges`` the copy's ``range_shares`` holds each factor's share of the
+    ranges (:func:`.range_shares.range_shares`, range_shares.csv).
     """
     import dataclasses
     opt = (scenario.options.get("uncertainty") if scenario is not None else None)
+    if opt is not None and opt.draws < 2 and opt.explain_ranges:
+        result = dataclasses.replace(result, notes=[*result.notes, NO_DRAWS_TO_EXPLAIN])
     if opt is None or opt.draws == 0:
         return result
     q = monte_carlo(result, study, opt)
@@ -153,7 +163,13 @@ def with_uncertainty(result, study, scenario):
     new.__dict__["table"] = add_quantiles(result.table, q, result.budget["annual_factor"].values)
     new.__dict__["derived"] = add_quantiles(result.derived, q).assign(
         range_note=summary_range_notes(result.budget))
-    new.budget.attrs["uncertainty"] = json.dumps(opt.to_dict(), sort_keys=True)
+    given = opt.to_dict()
+    if not given["explain_ranges"]:      # budget.nc as before the option existed
+        del given["explain_ranges"]
+    new.budget.attrs["uncertainty"] = json.dumps(given, sort_keys=True)
+    if opt.explain_ranges and opt.draws >= 2:       # range_shares.csv, the report's table
+        from .range_shares import range_shares
+        new.__dict__["range_shares"] = range_shares(result, study, opt)
     return new
 
 

@@ -172,6 +172,15 @@ class UncertaintyOptions:
         apart from the nitrate's (its own stream).  [0, 0] (default) switches it off.
         Under ``"bidirectional"`` with ``nh3_acid_ratio_from_air`` a drawn share of
         either pair is refused (:func:`pair_shift_refusal`).
+    explain_ranges : bool
+        ``workbench run`` also writes ``range_shares.csv``: each drawn factor's share of
+        the variance of the dry and total S and N at every site, receptor and period
+        (:func:`workbench.analysis.variance_shares.variance_shares`), and the report a
+        table of the largest factors per site.  It draws every site once more per
+        drawn factor (and Vd species), about as long as the Monte Carlo again for each;
+        False (default) writes nothing more.  Needs ``draws`` >= 2 (it explains their
+        range; with fewer a run note says so).  The draws and the quantiles are the same
+        either way.
     """
 
     draws: int = 0
@@ -196,6 +205,7 @@ class UncertaintyOptions:
     nh3_gamma_gsd: float = DEFAULT_NH3_GAMMA_GSD
     pair_shift_nitrate: tuple = (0.0, 0.0)
     pair_shift_ammonium: tuple = (0.0, 0.0)
+    explain_ranges: bool = False
 
     def __post_init__(self):
         if self.systematic_errors not in SYSTEMATIC_ERRORS:
@@ -226,6 +236,9 @@ class UncertaintyOptions:
             object.__setattr__(self, f"pair_shift_{pair}",
                                _shift_range(f"pair_shift_{pair}",
                                             getattr(self, f"pair_shift_{pair}")))
+        if not isinstance(self.explain_ranges, bool):
+            raise ValueError(f"UncertaintyOptions.explain_ranges = {self.explain_ranges!r} "
+                             "must be true or false")
         if not isinstance(self.lab_bias_filter_pack, bool):
             raise ValueError(f"UncertaintyOptions.lab_bias_filter_pack = "
                              f"{self.lab_bias_filter_pack!r} must be true or false")

@@ -110,6 +110,9 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
             description=f"show the 5-95 % range (Monte Carlo, {self.unc_options.draws} draws)",
             indent=False, layout=widgets.Layout(width="auto"))
         self._draws = None
+        from .range_shares_panel import RangeSharesPanel   # where the range comes from
+        self.shares_w = RangeSharesPanel(self.range_shares, lambda: (
+            self.site_w.value, self.receptor_w.value, self.year_w.value))
         #: True while the receptor and year lists are refilled: their changes draw nothing.
         #: (Never ``unobserve_all("value")`` on a Dropdown: it also drops ipywidgets' own
         #: value -> index link, and the page then shows an empty drop-down.)
@@ -127,7 +130,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
                           widgets.HBox([widgets.VBox(list(self.cut_w.values())), self.mode_w],
                                        layout=widgets.Layout(flex_flow="row wrap")),
                           self.range_w, self.progress, self.effect_w, self.text_w, page(self.fig),
-                          self.table_w])
+                          self.shares_w, self.table_w])
         from .export_controls import FigureExport      # every figure as PNG/SVG/HTML
         self.figure_export = FigureExport(
             lambda: {f"{self.site_w.value} {self.year_w.value}": self.fig}, "critical-loads")
@@ -178,6 +181,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
                                   resolution="year")
         self.run_years = years
         self.result, self._draws = result, None
+        self.shares_w.clear()
         self.effect_w.value = ""
         self.parts = group_deposition(result.years)
         labels = [str(p) for p in self.parts["period"].values]
@@ -216,6 +220,21 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
             self.progress.done("ready")
         return self._draws
 
+    def range_shares(self):
+        """Each drawn factor's share of the shown site's ranges, every receptor, year and
+        total (the ``range_shares`` stage of the session's graph: computed once per site,
+        years and options) [1; kg ha-1],
+        :func:`workbench.analysis.range_shares.site_shares`."""
+        from ..analysis.range_shares import site_shares
+        site = self.site_w.value
+        self.progress.start(f"each factor's share of the ranges of {site} "
+                            f"({self.unc_options.draws} draws, once more per factor)")
+        study = self.session.study_for(site, *self.run_years)
+        shares = site_shares(self.session.graph, study, self.result, site, self.unc_options,
+                             self.session.baseline.for_site(site).overrides)
+        self.progress.done("ready")
+        return shares
+
     def ranges(self, loads, sel, lower=False, lower_n=None) -> dict | None:
         """The exceedance.csv-like row of the shown site-year with the 5-95 % range of S and
         N deposition and the probability of exceedance, or None when the range is off.
@@ -241,6 +260,9 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         """Recompute the path and redraw."""
         sel = {"site": self.site_w.value, "receptor": self.receptor_w.value,
                "period": self.year_w.value}
+        # the shares of the range: shown with the range, for the receptor and year shown
+        self.shares_w.layout.display = "" if self.range_w.value else "none"
+        self.shares_w.show()
         parts = {k: float(v) for k, v in self.parts.sel(sel).data_vars.items()}
         loads = self.loads()
         cuts = {g: w.value / 100.0 for g, w in self.cut_w.items()}
