@@ -14,6 +14,7 @@ import pandas as pd
 import plotly.graph_objects as go
 from plotly.subplots import make_subplots
 
+from .figure_period import span_label, with_period
 from .palette import (COMPONENT_COLOURS, ELEMENT_DASH, OKABE_ITO, PATHWAY_COLOURS,
                       STATUS_OPACITY, STATUS_PATTERN, TEMPLATE)
 from .summaries import (axis_text, component_rates, component_reason, monthly_amounts,
@@ -111,7 +112,8 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
         "marker": {"symbol": sym, "size": 11, "color": OKABE_ITO["black"],
                    "line": {"color": OKABE_ITO["black"], "width": 1.5}},
         "customdata": text, "hovertemplate": "%{customdata}<extra></extra>"})
-    layout = {"barmode": "stack", "title": {"text": f"Budget · {site} · {receptor}"},
+    layout = {"barmode": "stack", "title": {"text": with_period(f"Budget · {site} · {receptor}",
+                                                                  span_label(periods))},
               "yaxis": {"title": {"text": axis_text(unit)}},
               "xaxis": {"title": {"text": "element and period"}},
               "legend": {"title": {"text": "pathway and species"}, "groupclick": "toggleitem"},
@@ -268,7 +270,9 @@ def monthly_fluxes_spec(ds_month, site, receptor, unit="kg/ha/yr") -> dict:
                 "xaxis": xname.replace("axis", ""), "yaxis": yname.replace("axis", "")})
         layout[yname].update({"title": {"text": axis_text(unit, True, el)}, "rangemode": "tozero"})
     layout[axes[1][0]]["title"] = {"text": "month (UTC)"}
-    layout.update({"title": {"text": f"Monthly deposition · {site} · {receptor}"},
+    years = t["start"].dt.year.astype(str) if len(t) else []
+    layout.update({"title": {"text": with_period(f"Monthly deposition · {site} · {receptor}",
+                                                 span_label(years))},
                    "height": HEIGHT + 100, "legend": {"title": {"text": "element and pathway"}}})
     return {"data": traces, "layout": layout}
 
