@@ -132,6 +132,12 @@ def _pivot_html(per: pd.DataFrame) -> str:
 MAX_FIGURE_PERIODS = 12
 
 
+#: Width the report's budget figures arrange their period labels for [px]: the page's
+#: width in a 1,000 px window (the body less its padding and a scroll bar, ~950 px)
+#: with room to spare; wider pages draw them as wide as the page.
+REPORT_FIGURE_PX = 900
+
+
 def _own_periods(result, years) -> bool:
     """The run's reporting periods differ from the calendar years (resolution month,
     season or hydro_year), so a figure may show them instead."""
@@ -496,7 +502,7 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
                 # periods, as in the table above, not a year of mostly unsampled months
                 shown = result.budget
                 year = [str(v) for v in shown["period"].values[-MAX_FIGURE_PERIODS:]]
-            fig = budget_bars(shown, site, r, year)
+            fig = budget_bars(shown, site, r, year, width=REPORT_FIGURE_PX)
             parts.append(pio.to_html(fig, include_plotlyjs="inline" if first else False,
                                      full_html=False))
             first = False

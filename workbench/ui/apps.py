@@ -298,7 +298,8 @@ class SiteExplorer(SavedText, widgets.VBox):
         bounds = self.session.bounds(*self.years)
         if name == "budget":
             from .uncertainty_band import with_range       # 5-95 % when [uncertainty] draws > 0
-            return with_range(figures.budget_bars_spec(r.years, site, rec, None, unit), self.study,
+            return with_range(figures.budget_bars_spec(r.years, site, rec, None, unit, FIGURE_WIDTH),
+                              self.study,
                               r, site, rec, unit, self.session.scenario.options.get("uncertainty"),
                               self.settings.for_site(site).overrides)
         if name == "monthly fluxes":
