@@ -55,6 +55,7 @@ def test_every_heading_has_words_with_units_and_its_csv_name(run):
         for name, inner in heads:
             if not name:            # a period label, a count: never a bare CSV name
                 assert html.unescape(inner) not in columns, inner
+                assert inner[:1].isupper() or inner[:1].isdigit(), inner   # words
                 continue
             name = html.unescape(name)
             words, small = inner.split("<br>")

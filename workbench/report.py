@@ -132,6 +132,10 @@ def _pivot_html(per: pd.DataFrame) -> str:
 MAX_FIGURE_PERIODS = 12
 
 
+#: Headings of the count columns of the rows read (the ledger's summary, not a column of
+#: input_rows.csv, which has a row per file and status).
+LEDGER_WORDS = {"read": "Rows read", "accepted": "Accepted", "flagged": "Flagged",
+                "rejected": "Rejected"}
 #: Width the report's budget figures arrange their period labels for [px]: the page's
 #: width in a 1,000 px window (the body less its padding and a scroll bar, ~950 px)
 #: with room to spare; wider pages draw them as wide as the page.
@@ -512,19 +516,24 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     parts.extend(coverage_section(t, _table_html))
     parts.append("<h2>Precipitation-chemistry QA</h2>")
     if result.screened is not None:
+        # counts of samples.csv's rows (no column of their own): headed in words
         st = pd.Series(result.screened["status"].values).value_counts().rename_axis("status") \
-            .reset_index(name="samples")
+            .reset_index(name="Samples")
+        parts.append("<p>Samples by status (samples.csv's <code>status</code>):</p>")
         parts.append(_table_html(st))
         reasons = pd.Series(result.screened["reasons"].values.astype(str))
         reasons = reasons[reasons != ""].str.split("; ").explode().value_counts() \
-            .rename_axis("reason").reset_index(name="samples")
+            .rename_axis("reason").reset_index(name="Samples")
+        parts.append("<p>Reasons of the samples flagged or excluded (a sample may have "
+                     "several; samples.csv's <code>reasons</code>):</p>")
         parts.append(_table_html(reasons))
     else:
         parts.append("<p>No precipitation file.</p>")
     parts.append("<h2>Input rows</h2>")
     base = scenario_base(scenario)             # files named as the scenario names them
     parts.append("<p>Files relative to the scenario's folder.</p>" if base is not None else "")
-    parts.append(_table_html(_shown_files(study.inputs.ledger.summary(), base)))
+    parts.append(_table_html(_shown_files(study.inputs.ledger.summary(), base).rename(
+        columns=LEDGER_WORDS)))
     reasons = study.inputs.ledger.reasons()   # why rows were flagged or rejected, per file
     if len(reasons):
         parts.append("<p>Reasons of the flagged and rejected rows (a row may have several; "
