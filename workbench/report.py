@@ -11,7 +11,7 @@ import pandas as pd
 
 from . import __version__
 from .budget import OMISSIONS
-from .column_labels import COLUMN_LABELS
+from .column_labels import COLUMN_LABELS, header_cell
 from .percent import no_percent_reason, percent_change
 from .runpaths import scenario_base, shown_path, shown_text
 from .report_network import (NETWORK_SITES, fold, grouped_free_notes, grouped_notes,
@@ -97,7 +97,6 @@ def _table_html(frame: pd.DataFrame, float_format=None, labels=None) -> str:
 def _headed(text: str, columns, labels=None) -> str:
     """`text` (one table of pandas' ``to_html``) with its header row made by
     :func:`workbench.column_labels.header_cell`."""
-    from .column_labels import header_cell
     labels = labels or {}
     row = "".join(header_cell(c, labels.get(c)) for c in columns)
     return re.sub(r"<thead>.*?</thead>", lambda m: f"<thead><tr>{row}</tr></thead>", text,
@@ -372,7 +371,8 @@ def _nh3_html(result, network=False) -> list:
             "<p>The N totals above use the net (negative: the canopy emits). A period whose "
             "net is an emission while its deposition-only figure is a deposition is "
             "<b>flagged</b> (<code>nh3_net_emission</code>): its total N is not "
-            "deposition-only.</p>", fold(_table_html(frame, labels=heads), len(frame), "every period")
+            "deposition-only.</p>", fold(_table_html(frame, labels=heads), len(frame),
+                                         "every period")
             if network else _table_html(frame, labels=heads)]
 
 
