@@ -109,6 +109,15 @@ def lab(tmp_path_factory, token):
     years = write_demo_subset(tmp / "years", ("ridge",), 2017, 2021)
     nb.cells.insert(1, nbformat.v4.new_code_cell(f'SCENARIO = r"{years}"\nYEARS = None'))
     nbformat.write(nb, root / "network_overview_years.ipynb")
+    # the site explorer on those five years (the budget's year labels)
+    nb = nbformat.read(NOTEBOOKS / "site_budget.ipynb", as_version=4)
+    for c in nb.cells:
+        if c.cell_type == "code":
+            c.outputs, c.execution_count = [], None
+    nb.metadata.pop("widgets", None)
+    nb.cells.insert(1, nbformat.v4.new_code_cell(
+        f'SCENARIO = r"{years}"\nSITE = "ridge"\nYEARS = (2017, 2021)'))
+    nbformat.write(nb, root / "site_budget_years.ipynb")
     # a user's typo in the first cell (defect: later cells gave NameError tracebacks)
     nb = nbformat.read(NOTEBOOKS / "critical_loads.ipynb", as_version=4)
     for c in nb.cells:
@@ -566,4 +575,56 @@ def test_a_failed_open_saved_and_reopened_shows_no_raw_line(lab, token, page):
     joined = "\n".join(texts)
     assert "Progress(" not in joined and "children=" not in joined, texts
     assert "Traceback" not in joined, texts
+    _close_sessions(lab, token)
+
+
+#: JavaScript: the boxes of the budget figure's x tick labels (each panel's), of its x
+#: axis titles and of any multi-category group line, and the labels' angle.
+BUDGET_LABELS = """() => {
+  const el = document.querySelector('.wb-budget .js-plotly-plot, .js-plotly-plot.wb-budget')
+             || document.querySelector('.jp-OutputArea .js-plotly-plot');
+  const box = e => { const b = e.getBoundingClientRect();
+                     return {top: b.top, bottom: b.bottom, left: b.left, right: b.right,
+                             text: e.textContent}; };
+  const axes = {};
+  for (const a of ['x', 'x2'])
+    axes[a] = [...el.querySelectorAll(`.${a}tick text`)].map(box);
+  return {axes, titles: [...el.querySelectorAll('.g-xtitle text, .g-x2title text')].map(box),
+          dividers: el.querySelectorAll('.xdivider, .x2divider').length,
+          angle: el.layout.xaxis.tickangle, width: el.getBoundingClientRect().width};
+}"""
+
+
+def test_budget_years_never_touch_at_1000_px(lab, token, page, tmp_path):
+    """Defect: the budget's years ("2023") were turned on a multi-category axis and ran
+    across its group lines. In a 1,000 px window with the file browser open, five
+    years: no group line, the labels of a panel apart (level: a gap between their boxes;
+    slanted: their centres a label's pitch apart), every label above its panel's title."""
+    from workbench.ui.figure_period import label_pitch
+    page.set_viewport_size({"width": 1000, "height": 1200})
+    _run_all(page, lab, token, "site_budget_years")
+    page.evaluate("window.jupyterapp.commands.execute('filebrowser:activate')")
+    page.wait_for_function(f"() => {{ const d = ({BUDGET})(); return d && d.length >= 10; }}")
+    page.wait_for_timeout(500)
+    got = page.evaluate(BUDGET_LABELS)
+    shot = tmp_path / "site_budget_years_1000.png"          # the window as measured
+    page.set_viewport_size({"width": 1000, "height": 3000})
+    page.locator(".jp-OutputArea-output .jupyter-widgets").first.scroll_into_view_if_needed()
+    page.wait_for_timeout(300)
+    page.screenshot(path=str(shot), full_page=True)
+    if os.environ.get("WB_SCREENSHOTS"):
+        shutil.copy(shot, Path(os.environ["WB_SCREENSHOTS"]) / shot.name)
+    assert page.evaluate("() => !!document.querySelector('.jp-FileBrowser:not(.lm-mod-hidden)')")
+    assert got["dividers"] == 0
+    assert len(got["titles"]) == 2
+    for (axis, labels), title in zip(got["axes"].items(), got["titles"]):
+        assert len(labels) >= 2, (axis, labels)
+        for a, b in zip(labels, labels[1:]):
+            if got["angle"] == 0:
+                assert b["left"] - a["right"] >= 4, (a, b)
+            else:
+                centre = (b["left"] + b["right"] - a["left"] - a["right"]) / 2
+                assert centre >= label_pitch(got["angle"]) - 1, (a, b)
+        assert title["top"] - max(lb["bottom"] for lb in labels) >= 4, (title, labels)
+    _no_javascript_errors(page)
     _close_sessions(lab, token)

@@ -33,10 +33,10 @@ def test_tables_have_no_empty_column_and_slopes_have_units(tmp_path):
     text = html.unescape((out / "report.html").read_text(encoding="utf-8"))
     rows = text[text.index("<h2>Input rows"):]
     head = rows[:rows.index("</thead>")]
-    assert re.findall(r"<th>(.*?)</th>", head)[0] == "file"
+    assert re.findall(r"<th title='(.*?)'>", head)[0] == "file"
     assert "<th></th>" not in rows[:rows.index("</table>")]
     trends = text[text.index("<h2>Trends"):]
-    assert "Sen slope [kg/ha/yr per yr]" in trends and "Sen slope [% per yr]" in trends
+    assert "Sen slope [kg S or N/ha/yr per yr]" in trends and "Sen slope [% per yr]" in trends
 
 
 def test_exceedance_legend_explains_region_minus_one_when_shown():

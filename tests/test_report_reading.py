@@ -63,8 +63,8 @@ def test_bracket_of_0_says_why(tmp_path):
     table = part[part.index("<table"):part.index("</table>")]
     assert re.search(r"<td>mere</td>\s*<td>wetland</td>.*?<td>0</td>", table, re.S)
     notes = part[part.index("</table>"):]
-    item = re.search(r"<li><b>dry_N_all_particle_kg_ha</b> at [^<]*mere · wetland[^<]*</li>",
-                     notes)
+    item = re.search(r"<li><b>[^<]*</b> \(<code>dry_N_all_particle_kg_ha</code>\) at "
+                     r"[^<]*mere · wetland[^<]*</li>", notes)
     assert item and "caught by the bulk collector" in item.group(0), notes
     assert 'bulk_correction = "exclude_particles"' in item.group(0)
     assert "(bulk_correction exclude_particles)" not in text

@@ -11,6 +11,7 @@ import pandas as pd
 
 from . import __version__
 from .budget import OMISSIONS
+from .column_labels import COLUMN_LABELS, header_cell
 from .percent import no_percent_reason, percent_change
 from .runpaths import scenario_base, shown_path, shown_text
 from .report_network import (NETWORK_SITES, fold, grouped_free_notes, grouped_notes,
@@ -82,11 +83,24 @@ def plain(v, digits=DIGITS) -> str:
     return text
 
 
-def _table_html(frame: pd.DataFrame, float_format=None) -> str:
+def _table_html(frame: pd.DataFrame, float_format=None, labels=None) -> str:
+    """A table of the report: its CSV columns headed in words with units and their CSV
+    name (:mod:`workbench.column_labels`; `labels` maps a column to this table's own
+    words), the numbers by :func:`plain`."""
     fmt = plain if float_format is None else (lambda v: float_format.format(v))
     # a named column axis (a pivot's "status") is written as an empty column of its own
-    return frame.rename_axis(columns=None).to_html(index=False, border=0, classes="tab",
+    text = frame.rename_axis(columns=None).to_html(index=False, border=0, classes="tab",
                                                    na_rep="–", float_format=fmt)
+    return _headed(text, frame.columns, labels)
+
+
+def _headed(text: str, columns, labels=None) -> str:
+    """`text` (one table of pandas' ``to_html``) with its header row made by
+    :func:`workbench.column_labels.header_cell`."""
+    labels = labels or {}
+    row = "".join(header_cell(c, labels.get(c)) for c in columns)
+    return re.sub(r"<thead>.*?</thead>", lambda m: f"<thead><tr>{row}</tr></thead>", text,
+                  count=1, flags=re.S)
 
 
 _MARK = {"complete": "", "flagged": " f", "partial": " p", "filled": " ~", "missing": ""}
@@ -108,12 +122,23 @@ def _pivot_html(per: pd.DataFrame) -> str:
     wide = per.assign(cell=cell).pivot_table(index=["site", "receptor", "element"],
                                              columns="period", values="cell", aggfunc="first")
     wide.columns.name = None
-    return wide.reset_index().to_html(index=False, border=0, classes="tab", na_rep="–")
+    wide = wide.reset_index()
+    return _headed(wide.to_html(index=False, border=0, classes="tab", na_rep="–"), wide.columns)
 
 
 #: Reporting periods drawn in a site's budget figure when it shows the scenario's own
 #: periods (the last ones; our choice: a year of months).
 MAX_FIGURE_PERIODS = 12
+
+
+#: Headings of the count columns of the rows read (the ledger's summary, not a column of
+#: input_rows.csv, which has a row per file and status).
+LEDGER_WORDS = {"read": "Rows read", "accepted": "Accepted", "flagged": "Flagged",
+                "rejected": "Rejected"}
+#: Width the report's budget figures arrange their period labels for [px]: the page's
+#: width in a 1,000 px window (the body less its padding and a scroll bar, ~950 px)
+#: with room to spare; wider pages draw them as wide as the page.
+REPORT_FIGURE_PX = 900
 
 
 def _own_periods(result, years) -> bool:
@@ -161,11 +186,7 @@ def _exceedance_html(result, study, network=False, ex=None) -> list:
                    "quantile above 0 is at least that, and a 0 is not determined (empty). "
                    "p carries a Monte Carlo error of about sqrt(p (1 - p) / draws).</p>")
         cols = cols[:-2] + drawn + cols[-2:]
-    table = _table_html(span[cols].rename(columns={
-        "p_exceed_acidity": "p acidity", "ex_acidity_eq_ha_yr_p05": "acidity 5 %",
-        "ex_acidity_eq_ha_yr_p95": "acidity 95 %", "p_exceed_nutrient_n": "p nutrient N",
-        "ex_nutrient_n_eq_ha_yr_p05": "nutrient N 5 %",
-        "ex_nutrient_n_eq_ha_yr_p95": "nutrient N 95 %"}))
+    table = _table_html(span[cols])
     out.append(fold(table, len(span), "the exceedance of every site and receptor")
                if network else table)
     return out
@@ -202,9 +223,7 @@ def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES, network=False)
     tr = tr.assign(valid=tr["valid"].map({True: "yes", False: "no"}).fillna("–"),
                    note=tr["note"].str.replace(r"^values: all(; |$)", "", regex=True))
     table = _table_html(tr[["site", "receptor", "element", "n_years", "tau", "p_value",
-                            "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid", "note"]].rename(
-        columns={"sen_slope_per_yr": "Sen slope [kg/ha/yr per yr]",       # S or N, as the
-                 "sen_slope_pct_per_yr": "Sen slope [% per yr]"}))      # element says
+                            "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid", "note"]])
     if network:       # the slopes are in the table of the sites; one figure per site
         return out + ["<p>Each site's slopes are in the table of the sites at the top; "   # no
                       "per-site trend figures in a network report.</p>",
@@ -275,7 +294,8 @@ def _bracket_notes_html(budget, frame: pd.DataFrame) -> str:
             when = ("every period" if len(periods) == n_periods.get((site, rec), -1)
                     else ", ".join(periods))
             where.append(f"{site} · {rec} ({when})")
-        items.append(f"<li><b>{html.escape(col)}</b> at {html.escape('; '.join(where))}: "
+        items.append(f"<li><b>{html.escape(COLUMN_LABELS.get(col, col))}</b> "
+                     f"(<code>{html.escape(col)}</code>) at {html.escape('; '.join(where))}: "
                      f"{html.escape(note)}</li>")
     return ("<p>Why a bracket is 0 or shown as – in the table above (budget.nc's "
             "bracket_*_note):</p><ul>" + "".join(items) + "</ul>")
@@ -345,15 +365,15 @@ def _nh3_html(result, network=False) -> list:
         return []
     cols = ["site", "receptor", "period", "flux_kg_ha", "nh3_deposition_only_kg_ha",
             "status", "note"]
-    frame = rows[cols].rename(columns={"flux_kg_ha": "NH3 net [kg N/ha]",
-                                       "nh3_deposition_only_kg_ha":
-                                       "NH3 deposition only [kg N/ha]"})
+    frame = rows[cols]
+    heads = {"flux_kg_ha": "NH3 net [kg N/ha]"}
     return ["<h2 id='nh3'>NH3 net exchange beside deposition only [kg N/ha per period]</h2>",
             "<p>The N totals above use the net (negative: the canopy emits). A period whose "
             "net is an emission while its deposition-only figure is a deposition is "
             "<b>flagged</b> (<code>nh3_net_emission</code>): its total N is not "
-            "deposition-only.</p>", fold(_table_html(frame), len(frame), "every period")
-            if network else _table_html(frame)]
+            "deposition-only.</p>", fold(_table_html(frame, labels=heads), len(frame),
+                                         "every period")
+            if network else _table_html(frame, labels=heads)]
 
 
 def _shown_files(frame: pd.DataFrame, base) -> pd.DataFrame:
@@ -439,15 +459,16 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
         meas = t[(t["element"] == "N") & (t["pathway"] == "dry") & (t["species"] == "all")
                  & (t["period"] != "span")][["site", "receptor", "period", "flux_kg_ha",
                                               "status", "missing_components"]]
-        frame = frame.merge(meas.rename(columns={"flux_kg_ha": "dry_N_as_measured_kg_ha"}),
-                            on=["site", "receptor", "period"], how="inner")
+        frame = frame.merge(meas, on=["site", "receptor", "period"], how="inner")
         parts.append("<p>The status and missing components are those of the measured dry N; "
                      "each bracket has its own status, no better than the weaker member of a "
                      "pair (docs/budget.md); a bracket shown as – has a pair member without "
                      "data in that period (budget.nc's bracket_*_note says which reason); the "
                      "measured figure stands.</p>")
-        bracket = _table_html(frame[["site", "receptor", "period", "dry_N_as_measured_kg_ha",
-                                     "status", "missing_components", *cols]])
+        # budget.csv's flux_kg_ha of the dry N sum, as measured
+        bracket = _table_html(frame[["site", "receptor", "period", "flux_kg_ha",
+                                     "status", "missing_components", *cols]],
+                              labels={"flux_kg_ha": "Dry N as measured [kg N/ha]"})
         parts.append(fold(bracket, len(frame), "the bracket of every site, receptor and period")
                      if network else bracket)
         parts.append(_bracket_notes_html(result.budget, frame))
@@ -487,7 +508,7 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
                 # periods, as in the table above, not a year of mostly unsampled months
                 shown = result.budget
                 year = [str(v) for v in shown["period"].values[-MAX_FIGURE_PERIODS:]]
-            fig = budget_bars(shown, site, r, year)
+            fig = budget_bars(shown, site, r, year, width=REPORT_FIGURE_PX)
             parts.append(pio.to_html(fig, include_plotlyjs="inline" if first else False,
                                      full_html=False))
             first = False
@@ -497,19 +518,24 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     parts.extend(coverage_section(t, _table_html))
     parts.append("<h2>Precipitation-chemistry QA</h2>")
     if result.screened is not None:
+        # counts of samples.csv's rows (no column of their own): headed in words
         st = pd.Series(result.screened["status"].values).value_counts().rename_axis("status") \
-            .reset_index(name="samples")
+            .reset_index(name="Samples")
+        parts.append("<p>Samples by status (samples.csv's <code>status</code>):</p>")
         parts.append(_table_html(st))
         reasons = pd.Series(result.screened["reasons"].values.astype(str))
         reasons = reasons[reasons != ""].str.split("; ").explode().value_counts() \
-            .rename_axis("reason").reset_index(name="samples")
+            .rename_axis("reason").reset_index(name="Samples")
+        parts.append("<p>Reasons of the samples flagged or excluded (a sample may have "
+                     "several; samples.csv's <code>reasons</code>):</p>")
         parts.append(_table_html(reasons))
     else:
         parts.append("<p>No precipitation file.</p>")
     parts.append("<h2>Input rows</h2>")
     base = scenario_base(scenario)             # files named as the scenario names them
     parts.append("<p>Files relative to the scenario's folder.</p>" if base is not None else "")
-    parts.append(_table_html(_shown_files(study.inputs.ledger.summary(), base)))
+    parts.append(_table_html(_shown_files(study.inputs.ledger.summary(), base).rename(
+        columns=LEDGER_WORDS)))
     reasons = study.inputs.ledger.reasons()   # why rows were flagged or rejected, per file
     if len(reasons):
         parts.append("<p>Reasons of the flagged and rejected rows (a row may have several; "
@@ -539,7 +565,9 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     style = ("body{font-family:sans-serif;max-width:1100px;margin:auto;padding:1em;color:#222}"
              ".tab{border-collapse:collapse;font-size:85%;display:block;max-width:100%;"
              "overflow-x:auto}.tab td,.tab th{padding:2px 6px;"
-             "border-bottom:1px solid #ddd}.caution{background:#fff6e0;border-left:4px solid "
+             "border-bottom:1px solid #ddd}.tab th{text-align:left;vertical-align:bottom}"
+             ".tab th .csv{font-weight:normal;font-size:85%;color:#666;font-family:monospace}"
+             ".caution{background:#fff6e0;border-left:4px solid "
              "#E69F00;padding:.6em 1em}.settings{background:#eef4fa;padding:.4em 1em}"
              "@media print{body{max-width:none;font-size:10pt}.tab{font-size:8pt;display:table}"
              "tr,.js-plotly-plot{break-inside:avoid}details{display:block}}")

@@ -11,9 +11,9 @@ import pandas as pd
 #: a weekly sample across the year's edge (0.98) is not (our choice).
 SHOW_BELOW = 0.95
 
-_COLS = {"wet_coverage_fraction": "precipitation sampled",
-         "air_coverage": "air sampled (lowest species)",
-         "vd_coverage": "Vd modelled (lowest)"}
+#: The coverage columns of budget.csv shown (their headings: workbench.column_labels,
+#: as every table of the report).
+_COLS = ("wet_coverage_fraction", "air_coverage", "vd_coverage")
 
 
 def coverage_gaps(table: pd.DataFrame, below: float = SHOW_BELOW) -> pd.DataFrame:
@@ -57,8 +57,8 @@ def coverage_section(table: pd.DataFrame, table_html) -> list:
                  "completeness thresholds keeps a budget <b>complete</b> (the covered "
                  "weeks stand for the period), so it is said here. The input notes below "
                  "name the weeks; quality.csv has every coverage.</p>")
-    shown = gaps.rename(columns=_COLS)
-    for c in _COLS.values():
+    shown = gaps.copy()
+    for c in _COLS:
         if c in shown:
             shown[c] = shown[c].map(lambda v: "–" if pd.isna(v) else f"{v:.0%}")
     parts.append(table_html(shown))

@@ -8,6 +8,7 @@ Monte Carlo error of a sample quantile is the textbook sqrt(q (1 - q) / n) / f(x
 and of a sample variance sqrt(2 / (n - 1)) (common practice).
 """
 import dataclasses
+from types import SimpleNamespace
 
 import numpy as np
 import pandas as pd
@@ -174,7 +175,12 @@ def test_site_explorer_shows_the_range_and_follows_an_assumption(tiny):
     app = SiteExplorer(Session.open(sc.path))
 
     def total_trace():
-        return next(t for t in app.figs["budget"].data if (t.name or "").startswith("total"))
+        """The totals of S and N as one (a trace in each element's panel)."""
+        s, n = [t for t in app.figs["budget"].data if (t.name or "").startswith("total")]
+        assert s.name == n.name
+        err = {k: list(s.error_y[k]) + list(n.error_y[k]) for k in ("array", "arrayminus")}
+        return SimpleNamespace(name=s.name, y=list(s.y) + list(n.y),
+                               error_y=SimpleNamespace(**err))
     t = total_trace()
     # N lacks pNO3, pNH4, NH3 and NO2 at the tiny site: its range is that of the measured
     # part, whose 95 % is no upper bound, so its bar has the lower arm only (both arms

@@ -233,8 +233,8 @@ def test_year_range_gives_a_bar_per_year_and_the_mean_in_the_change_line(session
     from workbench.ui.summaries import mean_totals, total_rates
     app = SiteExplorer(session, site="ridge", years=(2021, 2021))
     app.years_w.value = (2020, 2021)
-    total = next(t for t in app.figs["budget"].data if t.name == "total")
-    assert list(total.x[1]) == ["2020", "2021", "2020", "2021"]
+    total, n_total = [t for t in app.figs["budget"].data if t.name == "total"]  # S, N panels
+    assert list(total.x) == list(n_total.x) == ["2020", "2021"]
     rates = total_rates(app.result.years, "ridge", "conifer_forest")
     s = rates[rates["total"] == "S_total"]["value"].to_numpy()
     assert list(total.y[:2]) == pytest.approx(list(s))
@@ -248,7 +248,7 @@ def test_switching_site_picks_its_receptors_and_recomputes(two_sites_2021):
     app = SiteExplorer(s, site="ridge", years=(2021, 2021))
     app.site_w.value = "mere"
     assert list(app.receptor_w.options) == s.receptors("mere") and app.receptor_w.value == "wetland"
-    assert app.figs["budget"].layout.title.text.endswith("mere · wetland")
+    assert app.figs["budget"].layout.title.text.endswith("mere · wetland · 2021")
     dep = app.result.years["deposition"].sel(site="mere", receptor="wetland", component="N/dry/NO2")
     assert not np.isfinite(float(dep.values[0]))              # no NO2 at mere: missing
     assert _y(app, "dry NO2") is None

@@ -211,7 +211,7 @@ def test_every_change_of_the_site_explorer_reaches_a_new_model_unanswered(comms)
         fig = app.figs["budget"]
         assert fig.reopen_unless_answered(fig._last_trace_edit_id)
         _, layout, _ = _opening_state(fig.comm)
-        assert layout["title"]["text"].endswith(other)
+        assert layout["title"]["text"].endswith(f"{other} · 2021")     # the year last
 
 
 def _drawn_message(w):

@@ -15,8 +15,10 @@ def test_budget_legend_fits(session):
         warnings.simplefilter("ignore", RuntimeWarning)
         res = session.run(session.baseline, "ridge", 2021, 2021, "year")
     spec = figures.budget_bars_spec(res.years, "ridge", "conifer_forest", None)
-    lines = len(spec["data"]) + 2 + 1               # entries, two group titles, the title
-    assert len(spec["data"]) == 11
+    # entries (the totals of S and N: one), two group titles, the title
+    entries = [t for t in spec["data"] if t.get("showlegend", True) is not False]
+    lines = len(entries) + 2 + 1
+    assert len(entries) == 11 and len(spec["data"]) == 12
     plot_area = spec["layout"]["height"] - 180      # plotly's default top and bottom margins
     assert plot_area >= figures.LEGEND_LINE_PX * lines
     assert figures.legend_height(2) == figures.HEIGHT      # small legends: the usual height

@@ -66,11 +66,13 @@ def test_budget_bars_show_status_by_opacity_and_pattern(result):
 
 def test_budget_bars_one_bar_per_element_and_year(result):
     fig = figures.budget_bars(result.years, "ridge", "grass")
-    total = [t for t in fig.data if t.name == "total"][0]
-    assert list(total.x[0]) == ["S", "N"] and list(total.x[1]) == ["2021", "2021"]
+    s_tot, n_tot = [t for t in fig.data if t.name == "total"]     # one per element's panel
+    assert list(s_tot.x) == ["2021"] and list(n_tot.x) == ["2021"]
+    assert (s_tot.xaxis, n_tot.xaxis) == ("x", "x2") and s_tot.yaxis == n_tot.yaxis == "y"
+    assert n_tot.showlegend is False                 # one legend entry for both
     t = summaries.total_rates(result.years, "ridge", "grass")
     s_total = t[(t["total"] == "S_total")]["value"].iloc[0]
-    assert total.y[0] == pytest.approx(s_total)
+    assert s_tot.y[0] == pytest.approx(s_total)
 
 
 def test_monthly_amounts_are_amounts_not_rates(result):

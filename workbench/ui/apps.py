@@ -298,7 +298,8 @@ class SiteExplorer(SavedText, widgets.VBox):
         bounds = self.session.bounds(*self.years)
         if name == "budget":
             from .uncertainty_band import with_range       # 5-95 % when [uncertainty] draws > 0
-            return with_range(figures.budget_bars_spec(r.years, site, rec, None, unit), self.study,
+            return with_range(figures.budget_bars_spec(r.years, site, rec, None, unit, FIGURE_WIDTH),
+                              self.study,
                               r, site, rec, unit, self.session.scenario.options.get("uncertainty"),
                               self.settings.for_site(site).overrides)
         if name == "monthly fluxes":
@@ -308,10 +309,11 @@ class SiteExplorer(SavedText, widgets.VBox):
         if name in NO_VELOCITIES and r.velocities is None:
             return {"data": [], "layout": {"title": {"text": NO_VELOCITIES[name]}}}
         if name == "deposition velocity":
-            return figures_dry.velocity_diurnal_spec(r.velocities, site, rec, utc_offset_h=off)
+            return figures_dry.velocity_diurnal_spec(r.velocities, site, rec, utc_offset_h=off,
+                                                     period=self._span())
         if name == "resistances":
             return figures_dry.resistance_breakdown_spec(r.velocities, site, rec,
-                                                         self.gas_w.value, off)
+                                                         self.gas_w.value, off, self._span())
         if name == "ion balance":
             return figures_wet.ion_balance_spec(r.screened, site, self.settings.wet, *bounds)
         if name == "capture efficiency":

@@ -14,6 +14,7 @@ import pandas as pd
 import plotly.graph_objects as go
 from plotly.subplots import make_subplots
 
+from .figure_period import period_ticks, span_label, with_period
 from .palette import (COMPONENT_COLOURS, ELEMENT_DASH, OKABE_ITO, PATHWAY_COLOURS,
                       STATUS_OPACITY, STATUS_PATTERN, TEMPLATE)
 from .summaries import (axis_text, component_rates, component_reason, monthly_amounts,
@@ -52,12 +53,19 @@ def _hover_value(value, status, completeness, axis, note=""):
     return f"{value:.3g} {axis}<br>status {status}, completeness {comp}{why}"
 
 
-def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
+def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr", width=None) -> dict:
     """The budget bars of :func:`budget_bars` as plain plotly JSON (no template).
 
     ``{"data": [trace dicts], "layout": dict}``: an app copies it into a displayed
     ``FigureWidget`` with :func:`workbench.ui.controls.refresh`, which sends only what
     changed (building and validating plotly objects costs tens of milliseconds).
+
+    Sulfur and nitrogen side by side in two panels on one y axis, each with a category
+    axis of the periods, named by :func:`~workbench.ui.figure_period.period_ticks` for a
+    figure `width` px wide (default :data:`NARROWEST_PX`; the layout's width is left to
+    the caller): level, slanted or every k-th, never touching (a multi-category axis
+    turned the years of an explorer 520 px wide on end or at 30 degrees across its
+    group lines).
     """
     comp = component_rates(ds, site, receptor, period, unit)
     tot = total_rates(ds, site, receptor, period, unit)
@@ -75,7 +83,7 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
         st = g["status"].to_numpy()
         vals = g["value"].to_numpy()
         trace = {
-            "type": "bar", "x": [[el] * len(g), g["period"].tolist()],
+            "type": "bar", "x": g["period"].tolist(), "xaxis": ELEMENT_AXIS[el], "yaxis": "y",
             "y": [float(v) if np.isfinite(v) else None for v in vals],
             "name": name, "legendgroup": el,
             "marker": {"color": COMPONENT_COLOURS[f"{pw}/{sp}"],
@@ -84,7 +92,7 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
                        "line": {"color": OKABE_ITO["black"], "width": 0.5}},
             "customdata": [_hover_value(v, x, c, axis, n) for v, x, c, n in
                            zip(vals, st, g["completeness"].to_numpy(), g["note"].to_numpy())],
-            "hovertemplate": f"{el} {name} %{{x[1]}}: %{{customdata}}<extra></extra>"}
+            "hovertemplate": f"{el} {name} %{{x}}: %{{customdata}}<extra></extra>"}
         reasons = {component_reason(n) for n in g["note"]}
         if len(reasons) == 1 and reasons != {""}:
             why[name] = reasons.pop()
@@ -95,33 +103,60 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
     t = tot[tot["pathway"] == "total"]
     rows = {(e, p): i for i, (e, p) in enumerate(zip(t["element"], t["period"]))}
     value, status, missing = t["value"].to_numpy(), t["status"].to_numpy(), t["missing"].to_numpy()
-    xs_el, xs_p, ys, text, sym = [], [], [], [], []
-    for el in ELEMENTS:
+    symbols = []
+    for el in ELEMENTS:             # one trace of totals per panel, one legend entry
+        ys, text, sym = [], [], []
         for p in periods:
             i = rows[(el, p)]
             v, stt = float(value[i]), str(status[i])
-            xs_el.append(el)
-            xs_p.append(p)
             ys.append(v if np.isfinite(v) else None)
             miss = _missing_text(str(missing[i]), p, unmeasured, masked)
             text.append(f"{el} total {p}: {v:.3g} {axis_text(unit, element=el)}"
                         f"<br>status {stt}{miss}")
             sym.append(TOTAL_SYMBOL[stt in ("complete", "filled")])
-    traces.append({
-        "type": "scatter", "x": [xs_el, xs_p], "y": ys, "mode": "markers", "name": "total",
-        "legendgroup": "total",
-        "marker": {"symbol": sym, "size": 11, "color": OKABE_ITO["black"],
-                   "line": {"color": OKABE_ITO["black"], "width": 1.5}},
-        "customdata": text, "hovertemplate": "%{customdata}<extra></extra>"})
-    layout = {"barmode": "stack", "title": {"text": f"Budget · {site} · {receptor}"},
-              "yaxis": {"title": {"text": axis_text(unit)}},
-              "xaxis": {"title": {"text": "element and period"}},
+        symbols += sym
+        traces.append({
+            "type": "scatter", "x": list(periods), "y": ys, "mode": "markers", "name": "total",
+            "legendgroup": "total", "showlegend": el == ELEMENTS[0],
+            "xaxis": ELEMENT_AXIS[el], "yaxis": "y", "meta": {"element": el},
+            "marker": {"symbol": sym, "size": 11, "color": OKABE_ITO["black"],
+                       "line": {"color": OKABE_ITO["black"], "width": 1.5}},
+            "customdata": text, "hovertemplate": "%{customdata}<extra></extra>"})
+    room = panel_px(width or NARROWEST_PX)
+    layout = {"barmode": "stack", "title": {"text": with_period(f"Budget · {site} · {receptor}",
+                                                                  span_label(periods))},
+              "yaxis": {"title": {"text": axis_text(unit)}, "anchor": "x"},
               "legend": {"title": {"text": "pathway and species"}, "groupclick": "toggleitem"},
-              "annotations": [legend_note(traces, sym, why)]}
+              "annotations": [legend_note(traces, symbols, why)]}
+    for el, dom in zip(ELEMENTS, ((0, 0.5 - BUDGET_PANEL_GAP / 2), (0.5 + BUDGET_PANEL_GAP / 2, 1))):
+        name = "xaxis" + ELEMENT_AXIS[el][1:]
+        layout[name] = {"domain": list(dom), "anchor": "y", "title": {"text": ELEMENT_NAMES[el]},
+                        **period_ticks(periods, room)}
     # the note under the legend takes room too: a long one must not leave the figure
     note_lines = layout["annotations"][0]["text"].count("<br>") + 1
-    layout["height"] = legend_height(len(traces) + len(titled) + max(0, note_lines - 2))
+    shown = [t for t in traces if t.get("showlegend", True) is not False]
+    layout["height"] = legend_height(len(shown) + len(titled) + max(0, note_lines - 2))
     return {"data": traces, "layout": layout}
+
+
+#: The x axis of each element's panel in :func:`budget_bars_spec`.
+ELEMENT_AXIS = {"S": "x", "N": "x2"}
+#: Gap between the sulfur and the nitrogen panel of the budget bars [share of the plot].
+BUDGET_PANEL_GAP = 0.08
+#: Narrowest width of the budget bars [px]: the site explorer's figures in the output
+#: area beside JupyterLab's open file browser (workbench.ui.apps.FIGURE_WIDTH).
+NARROWEST_PX = 520
+#: Right of the budget's plot area [px]: its legend ("pathway and species", 19 characters
+#: at ~7 px, 40 px of symbol and padding) with plotly's gap (measured in chromium: the
+#: plot ended 179 px before the right edge of a 520 px figure).
+BUDGET_LEGEND_PX = 180
+#: Left of the plot area [px]: plotly's margin of 80 px (the y title within it).
+BUDGET_LEFT_PX = 80
+
+
+def panel_px(width: float) -> float:
+    """Width of one element's panel of the budget bars [px] in a figure `width` px wide."""
+    return (width - BUDGET_LEFT_PX - BUDGET_LEGEND_PX) * (0.5 - BUDGET_PANEL_GAP / 2)
 
 
 def _missing_text(missing: str, period, unmeasured, masked=()) -> str:
@@ -220,10 +255,12 @@ def subplot_layout(rows: int, cols: int, **options) -> tuple:
     return json.dumps(fig.layout.to_plotly_json()), tuple(axes)
 
 
-def budget_bars(ds, site, receptor, period=None, unit="kg/ha/yr", fig=None, template=TEMPLATE):
+def budget_bars(ds, site, receptor, period=None, unit="kg/ha/yr", fig=None, template=TEMPLATE,
+                width=None):
     """Stacked bars of the wet and dry parts by species, S and N side by side.
 
-    One bar per element and period (x axis: element, then period).  Bars of
+    One bar per element and period (a panel per element, the periods along its x
+    axis, one y axis).  Bars of
     components that are not complete are faded and patterned by status
     (:data:`~workbench.ui.palette.STATUS_OPACITY`, ``STATUS_PATTERN``); a diamond on
     each stack marks the total, open where the total is partial, flagged or missing.
@@ -240,14 +277,17 @@ def budget_bars(ds, site, receptor, period=None, unit="kg/ha/yr", fig=None, temp
         A key of :data:`workbench.ui.summaries.UNITS`.
     fig : plotly Figure, optional
         Traces are added to this figure.
+    width : float, optional
+        Width of the figure [px] its period labels are arranged for (default
+        :data:`NARROWEST_PX`); the layout's width is not set.
 
     Returns
     -------
     plotly.graph_objects.Figure
-        Ten bar traces (one per component, in the budget's order) and one scatter
-        trace of the totals.
+        Ten bar traces (one per component, in the budget's order) and two scatter
+        traces of the totals (S, then N; one legend entry).
     """
-    return from_spec(budget_bars_spec(ds, site, receptor, period, unit), template, fig)
+    return from_spec(budget_bars_spec(ds, site, receptor, period, unit, width), template, fig)
 
 
 def monthly_fluxes_spec(ds_month, site, receptor, unit="kg/ha/yr") -> dict:
@@ -275,7 +315,9 @@ def monthly_fluxes_spec(ds_month, site, receptor, unit="kg/ha/yr") -> dict:
                 "xaxis": xname.replace("axis", ""), "yaxis": yname.replace("axis", "")})
         layout[yname].update({"title": {"text": axis_text(unit, True, el)}, "rangemode": "tozero"})
     layout[axes[1][0]]["title"] = {"text": "month (UTC)"}
-    layout.update({"title": {"text": f"Monthly deposition · {site} · {receptor}"},
+    years = t["start"].dt.year.astype(str) if len(t) else []
+    layout.update({"title": {"text": with_period(f"Monthly deposition · {site} · {receptor}",
+                                                 span_label(years))},
                    "height": HEIGHT + 100, "legend": {"title": {"text": "element and pathway"}}})
     return {"data": traces, "layout": layout}
 

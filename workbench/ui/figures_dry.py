@@ -11,6 +11,7 @@ import json
 import numpy as np
 
 from ..periods import SEASON_NAMES
+from .figure_period import with_period
 from .figures import LEGEND_FRAME_PX, from_spec, legend_lines, subplot_layout
 from .palette import RESISTANCE_COLOURS, SPECIES_COLOURS, TEMPLATE
 from .summaries import (CM_PER_M, hour_season_slots, hourly_series, local_hour_and_season,
@@ -97,8 +98,10 @@ def _season_traces(value, n, make):
     return out
 
 
-def velocity_diurnal_spec(vel, site, receptor, species=DRY_SPECIES, utc_offset_h=0.0) -> dict:
-    """The figure of :func:`velocity_diurnal` as plain plotly JSON (no template).
+def velocity_diurnal_spec(vel, site, receptor, species=DRY_SPECIES, utc_offset_h=0.0,
+                          period="") -> dict:
+    """The figure of :func:`velocity_diurnal` as plain plotly JSON (no template);
+    `period` (``2021``, ``2019–2021``) ends its title.
 
     The numbers are those of :func:`workbench.ui.summaries.diurnal_velocity`, computed
     here from the same slot statistics without the table.
@@ -125,10 +128,12 @@ def velocity_diurnal_spec(vel, site, receptor, species=DRY_SPECIES, utc_offset_h
         traces.extend(enumerate(_season_traces(value, n, make)))
     return _panels(traces, utc_offset_h,
                    {"first": {"title": {"text": "mean Vd [cm s-1]"}, "rangemode": "tozero"}},
-                   f"Deposition velocity, mean diurnal cycle · {site} · {receptor}", "species")
+                   with_period(f"Deposition velocity, mean diurnal cycle · {site} · {receptor}",
+                               period), "species")
 
 
-def velocity_diurnal(vel, site, receptor, species=DRY_SPECIES, utc_offset_h=0.0, template=TEMPLATE):
+def velocity_diurnal(vel, site, receptor, species=DRY_SPECIES, utc_offset_h=0.0, template=TEMPLATE,
+                     period=""):
     """Mean deposition velocity by hour of day, one panel per season, per species.
 
     Parameters
@@ -139,17 +144,22 @@ def velocity_diurnal(vel, site, receptor, species=DRY_SPECIES, utc_offset_h=0.0,
     species : sequence of str
     utc_offset_h : float
         Local standard time minus UTC [h].
+    period : str
+        The years of `vel` shown (``2021``, ``2019–2021``), at the end of the title.
 
     Returns
     -------
     plotly.graph_objects.Figure
         One trace per species and season (in that order), Vd in cm s-1.
     """
-    return from_spec(velocity_diurnal_spec(vel, site, receptor, species, utc_offset_h), template)
+    return from_spec(velocity_diurnal_spec(vel, site, receptor, species, utc_offset_h, period),
+                     template)
 
 
-def resistance_breakdown_spec(vel, site, receptor, gas="SO2", utc_offset_h=0.0) -> dict:
-    """The figure of :func:`resistance_breakdown` as plain plotly JSON (no template).
+def resistance_breakdown_spec(vel, site, receptor, gas="SO2", utc_offset_h=0.0,
+                              period="") -> dict:
+    """The figure of :func:`resistance_breakdown` as plain plotly JSON (no template);
+    `period` (``2021``, ``2019–2021``) ends its title.
 
     The numbers are those of :func:`workbench.ui.summaries.resistance_medians`.
     """
@@ -177,14 +187,16 @@ def resistance_breakdown_spec(vel, site, receptor, gas="SO2", utc_offset_h=0.0) 
                    {"all": {"type": "log", "tickvals": LOG_TICKS,
                             "ticktext": [f"{v:g}" for v in LOG_TICKS]},
                     "first": {"title": {"text": "median resistance [s m-1]"}}},
-                   f"Resistances of {gas} (medians by hour) · {site} · {receptor}", "resistance")
+                   with_period(f"Resistances of {gas} (medians by hour) · {site} · {receptor}",
+                               period), "resistance")
 
 
 #: Tick values of a log axis of resistances [s m-1]: 1, 2, 5, 10 ... 50,000.
 LOG_TICKS = [m * 10 ** e for e in range(5) for m in (1, 2, 5)]
 
 
-def resistance_breakdown(vel, site, receptor, gas="SO2", utc_offset_h=0.0, template=TEMPLATE):
+def resistance_breakdown(vel, site, receptor, gas="SO2", utc_offset_h=0.0, template=TEMPLATE,
+                         period=""):
     """Median Ra, Rb, Rc (and their sum) of one gas by hour of day, per season.
 
     Medians are shown because a mean resistance is dominated by the calm night hours
@@ -197,10 +209,13 @@ def resistance_breakdown(vel, site, receptor, gas="SO2", utc_offset_h=0.0, templ
     site, receptor, gas : str
     utc_offset_h : float
         Local standard time minus UTC [h].
+    period : str
+        The years of `vel` shown (``2021``, ``2019–2021``), at the end of the title.
 
     Returns
     -------
     plotly.graph_objects.Figure
         One trace per resistance (ra, rb, rc, total) and season; log y axis [s m-1].
     """
-    return from_spec(resistance_breakdown_spec(vel, site, receptor, gas, utc_offset_h), template)
+    return from_spec(resistance_breakdown_spec(vel, site, receptor, gas, utc_offset_h, period),
+                     template)

@@ -10,6 +10,7 @@ import numpy as np
 
 from ..wet.options import WetOptions
 from ..wet.qa import tier_limit
+from .figure_period import bounds_label, with_period
 from .figures import from_spec, legend_height, legend_lines
 from .palette import ENVELOPE_FILL, OKABE_ITO, SAMPLE_STATUS_STYLE, TEMPLATE
 from .summaries import in_span, reason_counts
@@ -122,7 +123,9 @@ def ion_balance_spec(screened, site=None, options: WetOptions | None = None, sta
         m = (status == st) & np.isfinite(ce) & np.isfinite(an)
         data.append(_markers(an[m], ce[m], st, int(m.sum()), hover[m].tolist(),
                              "AN %{x:.4g}, CE %{y:.4g} ueq/L<br>%{customdata}<extra></extra>"))
-    layout = {"title": {"text": "Ion balance: cations against anions" + (f" · {site}" if site else "")},
+    layout = {"title": {"text": with_period("Ion balance: cations against anions"
+                                            + (f" · {site}" if site else ""),
+                                            bounds_label(start, end))},
               "xaxis": {"title": {"text": "anion sum AN [ueq L-1]"}, "type": "log",
                         **log_ticks(low / 2, top / 2)},
               "yaxis": {"title": {"text": "cation sum CE [ueq L-1]"}, "type": "log",
@@ -180,8 +183,9 @@ def capture_efficiency_spec(screened, site=None, options: WetOptions | None = No
         m = (status == st) & np.isfinite(ratio) & (gauge > 0)
         data.append(_markers(gauge[m], ratio[m], st, int(m.sum()), hover[m].tolist(),
                              "gauge %{x:.3g} mm, capture %{y:.2f}<br>%{customdata}<extra></extra>"))
-    layout = {"title": {"text": "Capture efficiency: collector over gauge depth"
-                        + (f" · {site}" if site else "")},
+    layout = {"title": {"text": with_period("Capture efficiency: collector over gauge depth"
+                                            + (f" · {site}" if site else ""),
+                                            bounds_label(start, end))},
               "xaxis": {"title": {"text": "gauge depth [mm]"}, "type": "log"},
               "yaxis": {"title": {"text": "capture ratio [1]"}, "rangemode": "tozero"},
               "height": HEIGHT, "legend": {"title": {"text": "sample status"}}}
@@ -228,14 +232,17 @@ def excluded_by_reason_spec(screened, site=None, start=None, end=None) -> dict:
     if most <= INTEGER_TICKS_UP_TO:
         xaxis["dtick"] = 1
     layout = {"barmode": "stack",
-              "title": {"text": "Samples not used as they are, by reason"
-                        + (f" · {site}" if site else "")},
+              "title": {"text": with_period("Samples not used as they are, by reason"
+                                            + (f" · {site}" if site else ""),
+                                            bounds_label(start, end))},
               "xaxis": xaxis, "yaxis": {"title": {"text": "reason"}, "autorange": "reversed"},
               "height": max(legend_height(legend_lines(data), HEIGHT // 2),
                             60 + 28 * len(reasons)),
               "margin": {"l": 260}}
     if not reasons:                  # say so in the plot, not an empty pair of axes
-        layout["title"]["text"] = "No sample excluded or flagged" + (f" · {site}" if site else "")
+        layout["title"]["text"] = with_period("No sample excluded or flagged"
+                                              + (f" · {site}" if site else ""),
+                                              bounds_label(start, end))
         layout["xaxis"] = {**xaxis, "visible": False}
         layout["yaxis"] = {**layout["yaxis"], "visible": False}
         layout["annotations"] = [{"text": "every sample of these years is used as it is",

@@ -58,12 +58,12 @@ def with_range(spec: dict, study, result, site, receptor, unit, options, overrid
         return spec
     ranges = total_ranges(result, study, site, receptor, unit, options, overrides)
     spec = copy.deepcopy(spec)
-    for trace in spec["data"]:
-        if trace.get("name") != "total":
-            continue
-        els, pers = trace["x"]
+    totals = [t for t in spec["data"] if t.get("name") == "total"]
+    partial = False
+    for trace in totals:           # one trace per element's panel, x the periods
+        el = trace["meta"]["element"]
         lo, hi = [], []
-        for el, p, y in zip(els, pers, trace["y"]):
+        for p, y in zip(trace["x"], trace["y"]):
             a, b = ranges.get((el, p), (np.nan, np.nan))
             ok = y is not None and np.isfinite(a)
             lo.append(float(y - a) if ok else None)
@@ -71,7 +71,8 @@ def with_range(spec: dict, study, result, site, receptor, unit, options, overrid
             hi.append(float(b - y) if ok and np.isfinite(b) else None)
         trace["error_y"] = {"type": "data", "symmetric": False, "array": hi, "arrayminus": lo,
                             "color": OKABE_ITO["black"], "thickness": 1.5, "width": 6}
-        partial = any(h is None and m is not None for h, m in zip(hi, lo))
+        partial |= any(h is None and m is not None for h, m in zip(hi, lo))
+    for trace in totals:           # the legend's one entry says it for both
         trace["name"] = ("total (5-95 % range; partial: 5 % only)" if partial
                          else "total (5-95 % range)")
     return spec
