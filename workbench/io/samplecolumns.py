@@ -300,3 +300,57 @@ def all_masked(conc, masked_why, sites, rows) -> str:
                 if more > 0 else "")
             out.setdefault(sp, {})[str(site)] = text
     return json.dumps(out, sort_keys=True)
+
+
+#: Attribute of the air Dataset (JSON): species -> the runs of its masked rows, each
+#: ``[site, start, end, reason, rows]`` (start and end as in the Dataset's ``start`` and
+#: ``end``, ISO text; the rows of one site with one reason merged where each starts at
+#: the end of the one before).  The budget's note of a period whose values were all
+#: masked says so with the reason (:func:`workbench.dryrows.masked_runs`), apart from a
+#: period with no samples at all.
+MASKED_RUNS_ATTR = "masked_runs"
+
+
+def masked_runs(masked_why, sites, start, end, rows) -> str:
+    """:data:`MASKED_RUNS_ATTR` of an air file as JSON.
+
+    Parameters
+    ----------
+    masked_why : dict
+        Species -> the reason of each masked row ("" where not masked;
+        :func:`_concentrations`), with or without its ``(masked)``.
+    sites : ndarray of str
+        The site of each row.
+    start, end : ndarray of datetime64
+        The row's sampling period (as written to the Dataset).
+    rows : ndarray of bool
+        The rows that count (a dropped exact repeat does not).
+
+    Returns
+    -------
+    str
+        ``{"NH3": [["ridge", "2020-01-02T15:00:00", "2021-01-07T15:00:00", "NH3 values look
+        1000x too high at this sampler: ...", 53]]}``; "{}" when no row was masked.
+    """
+    import json
+
+    out = {}
+    for sp, why in masked_why.items():
+        hit = (np.asarray(why) != "") & rows
+        if not hit.any():
+            continue
+        f = pd.DataFrame({"site": np.asarray(sites)[hit].astype(str),
+                          "start": np.asarray(start)[hit].astype("datetime64[s]"),
+                          "end": np.asarray(end)[hit].astype("datetime64[s]"),
+                          "why": pd.Series(np.asarray(why)[hit]).str.replace(
+                              r" \(masked\)$", "", regex=True).to_numpy()})
+        f = f.sort_values(["site", "why", "start", "end"], kind="stable").reset_index(drop=True)
+        same = (f["site"].eq(f["site"].shift()) & f["why"].eq(f["why"].shift())
+                & (f["start"] <= f.groupby(["site", "why"])["end"].cummax().shift()))
+        f["run"] = (~same).cumsum()
+        runs = f.groupby("run", sort=True).agg(site=("site", "first"), start=("start", "min"),
+                                               end=("end", "max"), why=("why", "first"),
+                                               n=("site", "size"))
+        out[sp] = [[s, pd.Timestamp(a).isoformat(), pd.Timestamp(b).isoformat(), w, int(k)]
+                   for s, a, b, w, k in runs.itertuples(index=False)]
+    return json.dumps(out, sort_keys=True)

@@ -1,0 +1,97 @@
+"""A species masked by the air reader in one year of a site and valid in the others:
+the masked year's budget row says every value of the period was masked, with the
+reader's reason, apart from a year with no samples at all ("no concentration in the
+period") and from the valid years (docs/budget.md, "Status and completeness").
+
+A copy of the invented demo network (ridge, 2019-2021): the NH3 samples touching 2019
+left empty (no samples), those of 2020 from a sampler whose lab wrote ng/m3 under the
+ug/m3 header (values x 1000; the reader masks that sampler whole, docs/data_formats.md
+section 3), those of 2021 as shipped.  Every expectation follows from the rules (SI
+prefixes: 1 ug = 1000 ng; the unit-slip rule of the reader).
+"""
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+
+sys.path.insert(0, str(Path(__file__).parent))
+
+HINT = ("NH3 values look 1000x too high at this sampler: ng/m3 written under a ug/m3 "
+        "header?")
+
+
+def _edit_air(path):
+    """The NH3 cells of ridge: empty on rows touching 2019, x1000 under sampler
+    RDG-F9 on the others touching 2020."""
+    lines = path.read_text(encoding="utf-8").splitlines()
+    head = next(i for i, ln in enumerate(lines) if not ln.startswith("#"))
+    cols = lines[head].split(",")
+    j, js, jm = cols.index("NH3 [ug/m3]"), cols.index("sampler_id"), cols.index("method_NH3")
+    out = lines[:head + 1]
+    for ln in lines[head + 1:]:
+        c = ln.split(",")
+        t0, t1 = c[1][:16], c[2][:16]
+        if t0 < "2020-01-01T00:00":                        # touches 2019: no NH3
+            c[j], c[jm] = "", ""
+        elif t0 < "2021-01-01T00:00" and c[j]:             # 2020: a sampler in ng/m3
+            c[j], c[js] = f"{float(c[j]) * 1000:.0f}", "RDG-F9"
+        out.append(",".join(c))
+    path.write_text("\n".join(out) + "\n", encoding="utf-8")
+
+
+@pytest.fixture(scope="module")
+def run(tmp_path_factory):
+    import xarray as xr
+    from ui.demo_subset import write_demo_subset
+
+    from workbench.cli import run_scenario
+    tmp = tmp_path_factory.mktemp("masked_year")
+    sc = write_demo_subset(tmp / "in", ("ridge",), 2019, 2021)
+    _edit_air(sc.parent / "air.csv")
+    written, _, _ = run_scenario(sc, tmp / "out", quiet=True)
+    table = pd.read_csv(written["budget.csv"])
+    with xr.open_dataset(written["budget.nc"]) as ds:
+        nc = ds.load()
+    return table, nc
+
+
+def _rows(table, year, species="NH3"):
+    """The dry `species` rows of ridge in `year` (one per receptor)."""
+    t = table[(table["site"] == "ridge") & (table["pathway"] == "dry")
+              & (table["species"] == species) & (table["period"].astype(str) == year)]
+    assert len(t)
+    return t
+
+
+def test_the_masked_year_says_so_with_the_reason(run):
+    """2020: every sample masked; before, "no concentration in the period", as for a
+    year no one sampled."""
+    t = _rows(run[0], "2020")
+    assert (t["status"] == "missing").all() and t["flux_kg_ha"].isna().all()
+    assert set(t["note"]) == {f"every value of the period masked: {HINT}"}, set(t["note"])
+
+
+def test_a_year_without_samples_keeps_no_concentration(run):
+    t = _rows(run[0], "2019")
+    assert (t["status"] == "missing").all()
+    assert set(t["note"]) == {"no concentration in the period"}, set(t["note"])
+
+
+def test_the_valid_year_and_the_other_species_keep_their_numbers(run):
+    t = _rows(run[0], "2021")
+    assert (t["status"] != "missing").all() and (t["flux_kg_ha"] > 0).all()
+    assert not t["note"].fillna("").str.contains("masked|no concentration").any()
+    for year in ("2019", "2020", "2021"):       # SO2 of every year: values as shipped
+        s = _rows(run[0], year, "SO2")
+        assert (s["status"] != "missing").all() and (s["flux_kg_ha"] > 0).all()
+
+
+def test_budget_nc_holds_the_same_notes(run):
+    _, nc = run
+    notes = {str(x) for x in np.asarray(nc["note"].values).ravel()}
+    assert f"every value of the period masked: {HINT}" in notes
+    assert "no concentration in the period" in notes
