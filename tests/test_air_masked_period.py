@@ -95,3 +95,35 @@ def test_budget_nc_holds_the_same_notes(run):
     notes = {str(x) for x in np.asarray(nc["note"].values).ravel()}
     assert f"every value of the period masked: {HINT}" in notes
     assert "no concentration in the period" in notes
+
+
+def test_the_site_texts_say_the_period_was_masked(run):
+    """The notebooks' NH3 line of the masked year, the budget figure's hover of its NH3
+    bar and of its N total, and the component's short reason read the note; the
+    year without samples keeps the bare words."""
+    from workbench.ui.figures import budget_bars_spec
+    from workbench.ui.no_effect import component_reason
+    from workbench.ui.summaries import nh3_line
+    _, nc = run
+    rec = str(nc["receptor"].values[0])
+    assert component_reason(f"every value of the period masked: {HINT}") == "period masked"
+    assert component_reason("no concentration in the period") == ""
+    years = [str(p) for p in nc["period"].values]
+    y2020 = nc.isel(period=[years.index("2020")])
+    line = nh3_line(y2020, "ridge", rec)
+    assert line == (f"Dry NH3: no figure (every NH3 value of these years masked: {HINT}); "
+                    "the N totals leave it out (partial)."), line
+    y2019 = nc.isel(period=[years.index("2019")])
+    assert nh3_line(y2019, "ridge", rec) == \
+        "Dry NH3: no figure (no NH3 concentrations in these years).", nh3_line(y2019, "ridge", rec)
+    spec = budget_bars_spec(nc.isel(period=[years.index(y) for y in ("2019", "2020", "2021")]),
+                            "ridge", rec)
+    nh3 = next(t for t in spec["data"] if t["name"] == "dry NH3")
+    hover = [str(x).replace("<br>", " ") for x in nh3["customdata"]]
+    assert "every value of the period masked: NH3 values look 1000x" in hover[1], hover
+    assert "masked" not in hover[0] and "masked" not in hover[2], hover
+    total = next(t for t in spec["data"] if t["name"] == "total")
+    texts = [str(x).replace("<br>", " ") for x in total["customdata"]]
+    assert any("N total 2020" in x and "every value of the period masked: NH3" in x
+               for x in texts), texts
+    assert not any("N total 2019" in x and "masked" in x for x in texts), texts
