@@ -127,3 +127,60 @@ def test_the_site_texts_say_the_period_was_masked(run):
     assert any("N total 2020" in x and "every value of the period masked: NH3" in x
                for x in texts), texts
     assert not any("N total 2019" in x and "masked" in x for x in texts), texts
+
+
+def test_period_notes_against_every_pair_of_run_and_period():
+    """period_masked_notes against the overlap of every run with every period written
+    out (common practice: hours inside [max(starts), min(ends)]); the reason of the
+    most masked hours wins, a run straddling two periods counts in each with its hours
+    inside, a period touched by no run stays ""."""
+    from workbench.drycomponents import period_masked_notes
+    rng = np.random.default_rng(3)
+    periods = pd.DataFrame({"start": pd.date_range("2019-01-01", periods=6, freq="MS"),
+                            "end": pd.date_range("2019-02-01", periods=6, freq="MS")})
+    n = 40
+    t0 = (np.datetime64("2018-12-20T00") + rng.integers(0, 4300, n) * np.timedelta64(1, "h"))
+    runs = pd.DataFrame({"site": rng.integers(0, 2, n), "species": rng.integers(0, 2, n),
+                         "start": t0.astype("datetime64[ns]"),
+                         "end": (t0 + rng.integers(1, 900, n) * np.timedelta64(1, "h"))
+                         .astype("datetime64[ns]"),
+                         "why": rng.choice(["a", "b", "c"], n), "rows": 1})
+    got = period_masked_notes(runs, periods, 2, 2)
+    p0 = periods["start"].to_numpy("datetime64[ns]")
+    p1 = periods["end"].to_numpy("datetime64[ns]")
+    for s in range(2):
+        for p in range(len(periods)):
+            for k in range(2):
+                hours = {}
+                for r in runs.itertuples():
+                    if r.site == s and r.species == k:
+                        h = (min(r.end.to_datetime64(), p1[p])
+                             - max(r.start.to_datetime64(), p0[p])) / np.timedelta64(1, "h")
+                        if h > 0:
+                            hours[r.why] = hours.get(r.why, 0.0) + h
+                want = min(hours, key=lambda w: (-hours[w], w)) if hours else ""
+                assert got[s, p, k] == want, (s, p, k, hours, got[s, p, k])
+    assert (got == "").any() and (got != "").any()
+
+
+def test_the_reader_keeps_the_masked_rows_as_runs(tmp_path):
+    """read_air: the 2020 NH3 rows of the sampler in ng/m3, weekly and one after another,
+    are one run in the attribute masked_runs (its rows counted, its reason once)."""
+    import json
+
+    from ui.demo_subset import write_demo_subset
+
+    from workbench.io.samples import read_air
+    from workbench.io.sites import read_sites
+    sc = write_demo_subset(tmp_path, ("ridge",), 2019, 2021)
+    _edit_air(sc.parent / "air.csv")
+    ds, led = read_air(sc.parent / "air.csv", read_sites(sc.parent / "sites.toml"))
+    data = json.loads(ds.attrs["masked_runs"])
+    assert data["reasons"] == [HINT]
+    run = data["runs"]["NH3"]
+    assert run["site"] == ["ridge"] and run["why"] == [0]
+    n = int((led.table["reason"].astype(str).str.contains("NH3 values look 1000x")).sum())
+    assert run["rows"] == [n] and n >= 52
+    t0 = np.datetime64(run["start"][0], "s")
+    assert np.datetime64("2020-01-01") <= t0 < np.datetime64("2020-01-10")
+    assert set(data["runs"]) == {"NH3"}

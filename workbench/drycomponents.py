@@ -197,17 +197,29 @@ def period_masked_notes(runs, periods: pd.DataFrame, n_sites: int, n_species: in
     out = np.full((n_sites, len(periods), n_species), "", dtype=object)
     if runs is None or not len(runs):
         return out
-    p0 = periods["start"].values.astype("datetime64[ns]")
-    p1 = periods["end"].values.astype("datetime64[ns]")
-    t0 = runs["start"].to_numpy("datetime64[ns]")[:, None]
-    t1 = runs["end"].to_numpy("datetime64[ns]")[:, None]
-    inside = (np.minimum(t1, p1[None, :]) - np.maximum(t0, p0[None, :])) / np.timedelta64(1, "h")
-    r, p = np.nonzero(inside > 0)                        # (run, period) pairs that overlap
+    order = np.argsort(periods["start"].values.astype("datetime64[ns]"), kind="stable")
+    p0 = periods["start"].values.astype("datetime64[ns]")[order]     # in time order
+    p1 = periods["end"].values.astype("datetime64[ns]")[order]
+    t0 = runs["start"].to_numpy("datetime64[ns]")
+    t1 = runs["end"].to_numpy("datetime64[ns]")
+    # the periods each run may overlap (a run of weeks spans one or two years): memory
+    # of the runs' length, not runs x periods
+    if np.all(p1[:-1] <= p0[1:]):                   # periods one after another
+        first = np.searchsorted(p1, t0, side="right")
+        last = np.searchsorted(p0, t1, side="left")
+    else:                                            # overlapping periods: every one
+        first, last = np.zeros(len(runs), int), np.full(len(runs), len(p0))
+    n = np.maximum(last - first, 0)
+    r = np.repeat(np.arange(len(runs)), n)
+    j = np.repeat(first - np.cumsum(n) + n, n) + np.arange(n.sum())   # first, first+1...
+    hours = (np.minimum(t1[r], p1[j]) - np.maximum(t0[r], p0[j])) / np.timedelta64(1, "h")
+    keep = hours > 0
+    r, p, hours = r[keep], order[j[keep]], hours[keep]
     if not r.size:
         return out
     f = pd.DataFrame({"site": runs["site"].to_numpy()[r], "period": p,
                       "species": runs["species"].to_numpy()[r],
-                      "why": runs["why"].to_numpy()[r], "hours": inside[r, p]})
+                      "why": runs["why"].to_numpy()[r], "hours": hours})
     f = f.groupby(["site", "period", "species", "why"], as_index=False)["hours"].sum()
     f = f.sort_values(["hours", "why"], ascending=[False, True], kind="stable")
     f = f.drop_duplicates(["site", "period", "species"])

@@ -347,17 +347,26 @@ def masked_runs(attrs, sites, species) -> pd.DataFrame:
     import json
 
     from .io.samplecolumns import MASKED_RUNS_ATTR
-    runs = json.loads(attrs.get(MASKED_RUNS_ATTR, "{}") or "{}")
-    where = {str(s): i for i, s in enumerate(sites)}
-    parts = [pd.DataFrame(v, columns=["site", "start", "end", "why", "rows"]).assign(
-        species=species.index(sp)) for sp, v in runs.items() if sp in species and v]
-    f = (pd.concat(parts, ignore_index=True) if parts else
-         pd.DataFrame(columns=["site", "start", "end", "why", "rows", "species"]))
-    f["site"] = f["site"].map(where)
-    f = f[f["site"].notna()]
-    return pd.DataFrame({"site": f["site"].astype(int).to_numpy(),
-                         "species": f["species"].astype(int).to_numpy(),
-                         "start": pd.to_datetime(f["start"]).to_numpy("datetime64[ns]"),
-                         "end": pd.to_datetime(f["end"]).to_numpy("datetime64[ns]"),
-                         "why": f["why"].astype(str).to_numpy(),
-                         "rows": f["rows"].astype(int).to_numpy()})
+    data = json.loads(attrs.get(MASKED_RUNS_ATTR, "{}") or "{}")
+    reasons = np.asarray(data.get("reasons", []), dtype=object)
+    where = pd.Index([str(s) for s in sites])
+    parts = []
+    for sp, r in data.get("runs", {}).items():
+        if sp not in species or not r.get("site"):
+            continue
+        si = where.get_indexer(pd.Index(r["site"], dtype=object))
+        keep = si >= 0                        # the sites of this run only
+        parts.append(pd.DataFrame({
+            "site": si[keep], "species": species.index(sp),
+            "start": np.asarray(r["start"], np.int64)[keep].astype("datetime64[s]")
+                                                        .astype("datetime64[ns]"),
+            "end": np.asarray(r["end"], np.int64)[keep].astype("datetime64[s]")
+                                                    .astype("datetime64[ns]"),
+            "why": reasons[np.asarray(r["why"], int)[keep]].astype(str),
+            "rows": np.asarray(r["rows"], int)[keep]}))
+    if parts:
+        return pd.concat(parts, ignore_index=True)
+    return pd.DataFrame({"site": np.zeros(0, int), "species": np.zeros(0, int),
+                         "start": np.zeros(0, "datetime64[ns]"),
+                         "end": np.zeros(0, "datetime64[ns]"),
+                         "why": np.zeros(0, object), "rows": np.zeros(0, int)})

@@ -302,12 +302,15 @@ def all_masked(conc, masked_why, sites, rows) -> str:
     return json.dumps(out, sort_keys=True)
 
 
-#: Attribute of the air Dataset (JSON): species -> the runs of its masked rows, each
-#: ``[site, start, end, reason, rows]`` (start and end as in the Dataset's ``start`` and
-#: ``end``, ISO text; the rows of one site with one reason merged where each starts at
-#: the end of the one before).  The budget's note of a period whose values were all
-#: masked says so with the reason (:func:`workbench.dryrows.masked_runs`), apart from a
-#: period with no samples at all.
+#: Attribute of the air Dataset (JSON): the masked rows of each species in runs of one
+#: site and reason (rows merged where each starts at or before the end of the one
+#: before), ``{"reasons": [...], "runs": {species: {"site": [...], "start": [...],
+#: "end": [...], "why": [...], "rows": [...]}}}``: start and end in seconds since
+#: 1970-01-01 on the Dataset's own clock (its ``start`` and ``end``), ``why`` an index
+#: into ``reasons`` (the reader's reason without its ``(masked)``), ``rows`` how many
+#: rows the run holds.  The budget's note of a period whose values were all masked says
+#: so with the reason (:func:`workbench.dryrows.masked_runs`), apart from a period with
+#: no samples at all.
 MASKED_RUNS_ATTR = "masked_runs"
 
 
@@ -329,28 +332,30 @@ def masked_runs(masked_why, sites, start, end, rows) -> str:
     Returns
     -------
     str
-        ``{"NH3": [["ridge", "2020-01-02T15:00:00", "2021-01-07T15:00:00", "NH3 values look
-        1000x too high at this sampler: ...", 53]]}``; "{}" when no row was masked.
+        ``{"reasons": ["NH3 values look 1000x too high at this sampler: ..."], "runs":
+        {"NH3": {"site": ["ridge"], "start": [1577977200], "end": [1610031600], "why":
+        [0], "rows": [53]}}}``; ``{"reasons": [], "runs": {}}`` when no row was masked.
     """
     import json
 
-    out = {}
+    out, reasons = {}, {}
     for sp, why in masked_why.items():
         hit = (np.asarray(why) != "") & rows
         if not hit.any():
             continue
-        f = pd.DataFrame({"site": np.asarray(sites)[hit].astype(str),
-                          "start": np.asarray(start)[hit].astype("datetime64[s]"),
-                          "end": np.asarray(end)[hit].astype("datetime64[s]"),
-                          "why": pd.Series(np.asarray(why)[hit]).str.replace(
-                              r" \(masked\)$", "", regex=True).to_numpy()})
+        text = pd.Series(np.asarray(why)[hit]).str.replace(r" \(masked\)$", "", regex=True)
+        local, uniq = pd.factorize(text)                # the few distinct reasons
+        code = np.asarray([reasons.setdefault(t, len(reasons)) for t in uniq], int)[local]
+        f = pd.DataFrame({"site": np.asarray(sites)[hit].astype(str), "why": code,
+                          "start": np.asarray(start)[hit].astype("datetime64[s]").astype(np.int64),
+                          "end": np.asarray(end)[hit].astype("datetime64[s]").astype(np.int64)})
         f = f.sort_values(["site", "why", "start", "end"], kind="stable").reset_index(drop=True)
+        reach = f.groupby(["site", "why"], sort=False)["end"].cummax().shift()
         same = (f["site"].eq(f["site"].shift()) & f["why"].eq(f["why"].shift())
-                & (f["start"] <= f.groupby(["site", "why"])["end"].cummax().shift()))
-        f["run"] = (~same).cumsum()
-        runs = f.groupby("run", sort=True).agg(site=("site", "first"), start=("start", "min"),
-                                               end=("end", "max"), why=("why", "first"),
-                                               n=("site", "size"))
-        out[sp] = [[s, pd.Timestamp(a).isoformat(), pd.Timestamp(b).isoformat(), w, int(k)]
-                   for s, a, b, w, k in runs.itertuples(index=False)]
-    return json.dumps(out, sort_keys=True)
+                & (f["start"] <= reach))
+        run = (~same).cumsum().to_numpy()
+        g = f.groupby(run, sort=True)
+        out[sp] = {"site": g["site"].first().tolist(), "start": g["start"].min().tolist(),
+                   "end": g["end"].max().tolist(), "why": g["why"].first().tolist(),
+                   "rows": g.size().tolist()}
+    return json.dumps({"reasons": list(reasons), "runs": out}, sort_keys=True)
