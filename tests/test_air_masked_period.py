@@ -1,7 +1,7 @@
 """A species masked by the air reader in one year of a site and valid in the others:
 the masked year's budget row says every value of the period was masked, with the
 reader's reason, apart from a year with no samples at all ("no concentration in the
-period") and from the valid years (docs/budget.md, "Status and completeness").
+period") and from the valid years (docs/budget.md, "Completeness of air concentrations").
 
 A copy of the invented demo network (ridge, 2019-2021): the NH3 samples touching 2019
 left empty (no samples), those of 2020 from a sampler whose lab wrote ng/m3 under the
@@ -34,7 +34,7 @@ def _edit_air(path):
     out = lines[:head + 1]
     for ln in lines[head + 1:]:
         c = ln.split(",")
-        t0, t1 = c[1][:16], c[2][:16]
+        t0 = c[1][:16]
         if t0 < "2020-01-01T00:00":                        # touches 2019: no NH3
             c[j], c[jm] = "", ""
         elif t0 < "2021-01-01T00:00" and c[j]:             # 2020: a sampler in ng/m3
