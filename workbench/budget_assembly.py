@@ -175,8 +175,11 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             fc = d_fc[..., k]
             mk = (dr.variables["masked_note"].values[:, k].astype(object)
                   if "masked_note" in dr.variables else np.full(len(sites), "", object))
+            pm = (dr.variables["period_masked_note"].values[:, :, k].astype(object)
+                  if "period_masked_note" in dr.variables
+                  else np.full((len(sites), n_p), "", object))
             st, fl, why = dry_status(cov, vdc, fs, fc, meas, sok, bool(d_ratio[k]), options,
-                                     masked=mk[:, None, None])
+                                     masked=mk[:, None, None], period_masked=pm[:, None, :])
             why = sampling_gap_note(why, st, cov, hours_p[None, None, :], "air")
             fails[..., j] = fl
             comp_note[..., j] = why

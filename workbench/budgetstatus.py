@@ -31,7 +31,8 @@ from .budgetstatus_notes import (HOURS_PER_WEEK, NO_PNA_AT_SITE,  # noqa: F401
                                  split_notes)
 # the dry components and the brackets (defined here before)
 from .budgetstatus_dry import (ALL_MASKED_NOTE, NOT_MEASURED_NOTE,  # noqa: F401
-                               unmeasured_note,
+                               NO_CONCENTRATION_NOTE, PERIOD_MASKED_NOTE,
+                               no_concentration_note, unmeasured_note,
                                NH3_NET_EMISSION, bracket_outputs,
                                bracket_velocities, bulk_caught_brackets, dry_status,
                                nh3_net_component)

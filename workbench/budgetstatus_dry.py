@@ -19,6 +19,27 @@ NOT_MEASURED_NOTE = "not measured at the site (no valid concentration)"
 #: The start of the note of a dry component whose species was measured at the site but
 #: lost every value to a check of the air reader; the flag follows.
 ALL_MASKED_NOTE = "measured, every value masked"
+#: The start of the note of a dry component whose period had air samples, every one
+#: masked by a check of the air reader (other periods of the site may have values); the
+#: reason of the most masked hours follows.  A period with no samples at all reads "no
+#: concentration in the period".
+PERIOD_MASKED_NOTE = "every value of the period masked"
+NO_CONCENTRATION_NOTE = "no concentration in the period"
+
+
+def no_concentration_note(period_masked) -> np.ndarray:
+    """The note of a period with no concentration of a species measured at the site:
+    :data:`PERIOD_MASKED_NOTE` with the reason where its samples were all masked
+    (`period_masked`, the reader's reason), :data:`NO_CONCENTRATION_NOTE` where
+    `period_masked` is "" (no sample in the period).
+
+    >>> no_concentration_note(np.array(["", "NH3 above the plausible 1000 ug/m3"], object)).tolist()
+    ['no concentration in the period', 'every value of the period masked: NH3 above the plausible 1000 ug/m3']
+    """
+    m = np.asarray(period_masked, dtype=object)
+    m = np.where(pd.isna(m), "", m).astype(str)
+    return np.where(m == "", NO_CONCENTRATION_NOTE,
+                    np.char.add(PERIOD_MASKED_NOTE + ": ", m)).astype(object)
 
 
 def unmeasured_note(masked) -> np.ndarray:
@@ -38,7 +59,7 @@ def unmeasured_note(masked) -> np.ndarray:
 
 
 def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
-                options, masked=""):
+                options, masked="", period_masked=""):
     """Status, completeness failure and reason of a dry component.
 
     Parameters
@@ -53,6 +74,10 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
     masked : str or ndarray of str, optional
         Where the species is not `measured`: why every value at the site was masked
         ("" for none: not sampled), broadcastable to `coverage` (:func:`unmeasured_note`).
+    period_masked : str or ndarray of str, optional
+        Where a measured species has no concentration in the period: the reason of its
+        masked samples there ("" for none: no sample in the period), broadcastable to
+        `coverage` (:func:`no_concentration_note`).
 
     Returns
     -------
@@ -83,7 +108,8 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
                         "no hour with both a concentration and a deposition velocity")
     gone = (coverage > 0) & ~(flux_cov > 0)
     note = np.where(gone, why_none, note)
-    note = np.where(~(coverage > 0), "no concentration in the period", note)
+    note = np.where(~(coverage > 0), no_concentration_note(
+        np.broadcast_to(np.asarray(period_masked, dtype=object), np.shape(coverage))), note)
     note = np.where(measured, note, unmeasured_note(masked))
     missing = ~measured | ~(coverage > 0) | gone | ~np.isfinite(vd_cov)
     status = np.where(missing, "missing", status)
@@ -202,8 +228,15 @@ def bracket_outputs(dr, pairs, species, vd_cov, filled_share, measured, season_o
             mk = np.where(measured[:, ks], "", mk)
             sampled = (measured[:, ks] | (mk != "")).all(-1)
             mk = np.where(sampled, np.where(mk[:, 0] != "", mk[:, 0], mk[:, 1]), "")
+            # a period without a concentration of a member: the first member's masked
+            # reason there ("" where neither member's samples of the period were masked)
+            pm = (dr.variables["period_masked_note"].values[:, :, ks].astype(object)
+                  if "period_masked_note" in dr.variables
+                  else np.full((len(meas), d.shape[2], 2), "", object))
+            pm = np.where(pm[..., 0] != "", pm[..., 0], pm[..., 1])
             st, _, note = dry_status(cov, vd_cov[..., k], filled_share[..., k], fc, meas, sok,
-                                     bool(ratio[ks].any()), options, masked=mk[:, None, None])
+                                     bool(ratio[ks].any()), options, masked=mk[:, None, None],
+                                     period_masked=pm[:, None, :])
             note = np.where(note == "", note, f"the weaker of {' and '.join(members)}: " + note)
             compl = np.fmin(np.fmin(cov, fc), vd_cov[..., k])
             miss = st == "missing"

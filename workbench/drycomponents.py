@@ -69,7 +69,8 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         Vd was filled or, missing, taken as the sampling period's mean), ``flux_coverage`` [1] (hours with a concentration
         and a deposition velocity: 0 where Vd or the air density is missing for every
         hour, and the deposition is then NaN, never 0), ``measured`` (site, species), ``masked_note`` (site, species: why a
-        species measured there has no value left, "" otherwise),
+        species measured there has no value left, "" otherwise), ``period_masked_note``
+        (site, period, species: :func:`period_masked_notes`),
         ``mixing_ratio`` (species: given as a mixing ratio), ``pSO4_total_used`` (site,
         period; text naming the pSO4 samples without pNa whose total pSO4 was used on
         the nss basis, "" where none; :func:`workbench.drynss.total_used_notes`), the pair brackets
@@ -152,6 +153,10 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
              "masked_note", np.full(rows["measured"].shape, ""))).astype(str),
                          {"long_name": "why a species measured at the site has no value: "
                           "every value masked by a check of the air reader (the flag)"}),
+         "period_masked_note": (("site", "period", "species"), period_masked_notes(
+             rows.get("masked_runs"), periods, n_s, n_k).astype(str),
+             {"long_name": "the reason of the most masked sampling hours of the period, "
+              "where the air reader masked values of the species in it ('' elsewhere)"}),
          "concentration": (("site", "period", "species"), conc,
                            {"units": "mol m-3", "long_name": "time-weighted mean concentration "
                             "over the covered hours (amount of species; ambient)"}),
@@ -168,3 +173,55 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         coords={"site": sites, "receptor": receptors, "period": periods["label"].values,
                 "species": species_list})
     return ds
+
+
+def period_masked_notes(runs, periods: pd.DataFrame, n_sites: int, n_species: int) -> np.ndarray:
+    """The reason of the masked air rows of each (site, period, species): the one of the
+    most masked sampling hours inside the period (the most common reason where several).
+
+    Parameters
+    ----------
+    runs : pandas.DataFrame or None
+        The masked rows in runs (:func:`workbench.dryrows.masked_runs`).
+    periods : pandas.DataFrame
+        Reporting periods (``start``, ``end``).
+    n_sites, n_species : int
+
+    Returns
+    -------
+    ndarray of str (site, period, species)
+        "" where no masked row overlaps the period.  The budget reads it where the
+        period has no concentration: every value of the period masked, not a period with
+        no samples (:func:`workbench.budgetstatus.dry_status`).
+    """
+    out = np.full((n_sites, len(periods), n_species), "", dtype=object)
+    if runs is None or not len(runs):
+        return out
+    order = np.argsort(periods["start"].values.astype("datetime64[ns]"), kind="stable")
+    p0 = periods["start"].values.astype("datetime64[ns]")[order]     # in time order
+    p1 = periods["end"].values.astype("datetime64[ns]")[order]
+    t0 = runs["start"].to_numpy("datetime64[ns]")
+    t1 = runs["end"].to_numpy("datetime64[ns]")
+    # the periods each run may overlap (a run of weeks spans one or two years): memory
+    # of the runs' length, not runs x periods
+    if np.all(p1[:-1] <= p0[1:]):                   # periods one after another
+        first = np.searchsorted(p1, t0, side="right")
+        last = np.searchsorted(p0, t1, side="left")
+    else:                                            # overlapping periods: every one
+        first, last = np.zeros(len(runs), int), np.full(len(runs), len(p0))
+    n = np.maximum(last - first, 0)
+    r = np.repeat(np.arange(len(runs)), n)
+    j = np.repeat(first - np.cumsum(n) + n, n) + np.arange(n.sum())   # first, first+1...
+    hours = (np.minimum(t1[r], p1[j]) - np.maximum(t0[r], p0[j])) / np.timedelta64(1, "h")
+    keep = hours > 0
+    r, p, hours = r[keep], order[j[keep]], hours[keep]
+    if not r.size:
+        return out
+    f = pd.DataFrame({"site": runs["site"].to_numpy()[r], "period": p,
+                      "species": runs["species"].to_numpy()[r],
+                      "why": runs["why"].to_numpy()[r], "hours": hours})
+    f = f.groupby(["site", "period", "species", "why"], as_index=False)["hours"].sum()
+    f = f.sort_values(["hours", "why"], ascending=[False, True], kind="stable")
+    f = f.drop_duplicates(["site", "period", "species"])
+    out[f["site"].to_numpy(), f["period"].to_numpy(), f["species"].to_numpy()] = f["why"].to_numpy()
+    return out

@@ -192,7 +192,9 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
         ``pair_split`` moves pNH4 into NH3, ``"moved"``: the pNH4 rows with the
         exchange's Vd); ``"notes"``,
         ``"measured"`` (site x species bool), ``"masked_note"`` (site x species str,
-        :func:`masked_notes`), ``"receptors"``, ``"times"``, ``"sites"``;
+        :func:`masked_notes`), ``"masked_runs"`` (the masked rows, :func:`masked_runs`;
+        the moved-into species of a ``pair_split`` holds the other member's too),
+        ``"receptors"``, ``"times"``, ``"sites"``;
         ``"keys"``: the node key of each piece of rows (for :func:`.drycomponents.dry_components`;
         a bracket member's under ``("bracket", pair, how, member)``).
     """
@@ -263,6 +265,7 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
         [np.isin(sites, np.unique(air_v["site"].values[has_value(sp)]))
          if sp in air_v else np.zeros(len(sites), bool) for sp in species_list], -1)
     out["masked_note"] = masked_notes(air.value.attrs, sites, species_list)
+    out["masked_runs"] = masked_runs(air.value.attrs, sites, species_list)
     # pair_split: the main components of a pair from the bracket's rows (_apply_split)
     out["split"] = split_pairs(options.pair_split, out, air_v, nodes)
     for pair, (into, other, _) in out["split"].items():
@@ -271,6 +274,9 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
         out["masked_note"][:, k_in] = np.where(out["masked_note"][:, k_in] == "",
                                                out["masked_note"][:, k_out],
                                                out["masked_note"][:, k_in])
+        mr = out["masked_runs"]                # the other member's masked rows too
+        out["masked_runs"] = pd.concat([mr, mr[mr["species"] == k_out].assign(species=k_in)],
+                                       ignore_index=True)
     if "NH3" in out["species"] and all(k in nodes for k in NH3_EXCHANGE):
         inputs, dep = one(prepared, "NH3", "NH3_bidirectional")
         em = run("nh3_emission_rows", deps={"deposition": dep, "inputs": inputs,
@@ -316,3 +322,51 @@ def masked_notes(attrs, sites, species) -> np.ndarray:
             if site in where:
                 out[where[site], k] = why
     return out
+
+
+def masked_runs(attrs, sites, species) -> pd.DataFrame:
+    """The air rows masked by a check of the air reader, per species, as runs of rows
+    of one site and reason (the air Dataset's attribute
+    :data:`workbench.io.samplecolumns.MASKED_RUNS_ATTR`).
+
+    Parameters
+    ----------
+    attrs : dict
+        The air Dataset's attributes.
+    sites, species : sequence of str
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns ``site`` (index into `sites`), ``species`` (index into `species`),
+        ``start``, ``end`` (datetime64, as the Dataset's), ``why`` (the reader's reason
+        without its ``(masked)``) and ``rows`` (how many rows the run holds); no rows
+        without the attribute (an air Dataset made elsewhere: a grid, a test's table)
+        and for sites not in `sites`.
+    """
+    import json
+
+    from .io.samplecolumns import MASKED_RUNS_ATTR
+    data = json.loads(attrs.get(MASKED_RUNS_ATTR, "{}") or "{}")
+    reasons = np.asarray(data.get("reasons", []), dtype=object)
+    where = pd.Index([str(s) for s in sites])
+    parts = []
+    for sp, r in data.get("runs", {}).items():
+        if sp not in species or not r.get("site"):
+            continue
+        si = where.get_indexer(pd.Index(r["site"], dtype=object))
+        keep = si >= 0                        # the sites of this run only
+        parts.append(pd.DataFrame({
+            "site": si[keep], "species": species.index(sp),
+            "start": np.asarray(r["start"], np.int64)[keep].astype("datetime64[s]")
+                                                        .astype("datetime64[ns]"),
+            "end": np.asarray(r["end"], np.int64)[keep].astype("datetime64[s]")
+                                                    .astype("datetime64[ns]"),
+            "why": reasons[np.asarray(r["why"], int)[keep]].astype(str),
+            "rows": np.asarray(r["rows"], int)[keep]}))
+    if parts:
+        return pd.concat(parts, ignore_index=True)
+    return pd.DataFrame({"site": np.zeros(0, int), "species": np.zeros(0, int),
+                         "start": np.zeros(0, "datetime64[ns]"),
+                         "end": np.zeros(0, "datetime64[ns]"),
+                         "why": np.zeros(0, object), "rows": np.zeros(0, int)})

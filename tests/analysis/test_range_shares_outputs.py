@@ -153,3 +153,30 @@ def test_report_section_only_when_computed():
     assert set(top["period"]) == {"span"}
     page = "".join(report_section(rows, lambda f: f.to_html()))
     assert "<h3>s1</h3>" in page and "air_rel_sd" not in page
+
+
+def test_a_factor_that_moves_nothing_is_exactly_0_in_the_file_and_tables(explained):
+    """The tiny site has no bulk collector and no NH3: the bulk factor and the NH3
+    Gamma_s factor move nothing there, and the wet factors move no dry total.  Their
+    shares read exactly 0.0 in range_shares.csv (before, about 8e-32 in N_dry: the
+    variance of equal numbers, rounding), the report's table leaves them out, and the
+    explorer's table shows 0.0, never -0.0."""
+    from workbench.analysis.range_shares import largest_factors
+    from workbench.ui.range_shares_panel import shares_display
+    shares = pd.read_csv(explained["range_shares.csv"])
+    idle = shares[shares["factor"].isin(["bulk_factor_rel_sd", "nh3_gamma_gsd"])
+                  | (shares["total"].str.endswith("_dry")
+                     & shares["factor"].isin(["depth_rel_sd", "gauge_catch_rel_sd",
+                                              "precip_conc_rel_sd"]))]
+    assert len(idle) >= 8
+    for col in ("variance_share", "log_variance_share"):
+        assert (idle[col] == 0.0).all(), idle[["total", "factor", col]]
+    report = largest_factors(shares.fillna({"part_of": ""}))
+    assert not report["factor"].isin(["bulk_factor_rel_sd", "nh3_gamma_gsd"]).any()
+    r = shares.iloc[0]
+    for total in ("N_dry", "S_dry"):
+        shown = shares_display(shares, r["receptor"], str(r["period"]), total)
+        row = shown.set_index("factor").loc["bulk_factor_rel_sd"]
+        assert row["share of the variance"] == 0.0 and row["share of the log-variance"] == 0.0
+        vals = shown[["share of the variance", "share of the log-variance"]].to_numpy(float)
+        assert not (np.signbit(vals) & (vals == 0)).any()

@@ -65,6 +65,52 @@ def test_product_of_log_normal_factors_shares_the_log_variance():
     assert np.isnan(sh["a"])
 
 
+def test_a_factor_that_moves_nothing_has_a_share_of_exactly_0():
+    """A factor whose draws alone are all the same number has a share of exactly 0.0,
+    not the variance of rounding (np.var of 200 times 7.77 is about 3e-30, not 0: the
+    mean of equal numbers is not always the number, IEEE 754 double rounding, common
+    practice); the other shares are Var(alone) / Var(full) as before, bit for bit, and a
+    share far above the tolerance (1e-9) stays."""
+    from workbench.analysis.variance_shares import ZERO_SHARE_REL
+    x = stats.norm(0, 1).rvs(200, random_state=11)
+    still = np.full(200, 7.77)
+    assert np.var(still) > 0                   # the rounding the rule removes
+    full = 7.77 + x
+    small = 7.77 + np.sqrt(1e-9) * x           # a share of 1e-9 of the variance
+    shares, rest = first_order_shares(full, {"moves": full, "still": still, "small": small})
+    assert shares["still"] == 0.0 and not np.signbit(shares["still"])
+    assert shares["moves"] == np.var(full) / np.var(full)
+    assert shares["small"] == np.var(small) / np.var(full)
+    assert shares["small"] == pytest.approx(1e-9, rel=1e-6) and shares["small"] > ZERO_SHARE_REL
+    lg, _ = first_order_shares(full + 10, {"still": still, "moves": full + 10}, log=True)
+    assert lg["still"] == 0.0 and lg["moves"] == 1.0
+    # the rest of a single factor that holds it all: 0.0, not -2e-16
+    one, rest1 = first_order_shares(full, {"moves": full, "still": still})
+    assert rest1 == 0.0 and not np.signbit(rest1)
+
+
+def test_tiny_site_a_factor_that_moves_nothing_is_exactly_0(tiny):
+    """On the tiny site (no bulk collector, a wet-only one), the depth's spread alone
+    moves no dry total, and SO2's Vd part no N total: their shares of S_dry and N_dry
+    are 0.0 (before, 1e-31 to 1e-28), while the shares of S_total keep their values."""
+    sc, study, res, lay = tiny
+    opt = UncertaintyOptions(draws=200, seed=5, **{**OFF, "vd_gsd": {**OFF["vd_gsd"],
+                                                                     "SO2": 1.5, "HNO3": 1.4},
+                                                   "depth_rel_sd": 0.1})
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        df = variance_shares(res, study, opt, which="budget",
+                             totals=("S_dry", "N_dry", "S_total"), layer=lay)
+    s_dry = df[df["total"] == "S_dry"].set_index("factor")
+    n_dry = df[df["total"] == "N_dry"].set_index("factor")
+    for t, f in ((s_dry, "depth_rel_sd"), (n_dry, "depth_rel_sd"), (n_dry, "vd_gsd.SO2")):
+        for col in ("variance_share", "log_variance_share"):
+            assert t.loc[f, col] == 0.0, (f, col, t.loc[f, col])
+    assert s_dry.loc["together", "variance_share"] == 0.0
+    tot = df[df["total"] == "S_total"].set_index("factor")
+    assert 0.001 < tot.loc["depth_rel_sd", "variance_share"] < 0.5
+
+
 def _lognormal_var(g):
     return float(stats.lognorm(s=np.log(g)).var())
 

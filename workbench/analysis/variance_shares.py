@@ -61,6 +61,14 @@ FACTORS = {
 #: The element (S or N) of each dry species.
 _ELEMENT = {c[2]: c[0] for c in COMPONENTS if c[1] == "dry"}
 
+#: A share at or below this fraction of the total's variance is 0 [1]: a factor that
+#: moves nothing at a site still has a variance of its constant draws of rounding size
+#: (np.var of 200 equal numbers x: up to about (2e-16 x)^2, a share near 1e-29), and
+#: the rest 1 - the sum of the shares of a single factor is 0 to about 1e-16.  1e-12 is
+#: our choice: far above the rounding, far below a share the tables show (3 decimals; a
+#: factor whose spread alone is a millionth of the total's).
+ZERO_SHARE_REL = 1e-12
+
 #: The columns of :func:`variance_shares`' table.
 COLUMNS = ("site", "receptor", "period", "total", "factor", "part_of", "variance_share",
            "log_variance_share", "alone_p05", "alone_p50", "alone_p95", "unit")
@@ -111,7 +119,9 @@ def first_order_shares(full: np.ndarray, alone: dict, log: bool = False) -> tupl
     -------
     (dict, ndarray)
         Factor -> share (...) [1], Var(alone) / Var(full); and the rest 1 - the sum of
-        the shares (...) [1].  NaN where `full` does not vary (or is not finite).
+        the shares (...) [1].  NaN where `full` does not vary (or is not finite).  A
+        share or a rest within :data:`ZERO_SHARE_REL` of 0 is exactly 0 (a factor that
+        moves nothing: its constant draws have a variance of rounding size only).
     """
     if log:
         pos = (full > 0).all(0) & np.logical_and.reduce([(a > 0).all(0) for a in alone.values()]
@@ -123,9 +133,22 @@ def first_order_shares(full: np.ndarray, alone: dict, log: bool = False) -> tupl
     v = np.var(full, axis=0)
     ok = np.isfinite(v) & (v > 0)
     den = np.where(ok, v, 1.0)
-    shares = {k: np.where(ok, np.var(a, axis=0) / den, np.nan) for k, a in alone.items()}
-    rest = 1.0 - sum(shares.values()) if shares else np.where(ok, 1.0, np.nan)
+    shares = {k: zero_to_rounding(np.where(ok, np.var(a, axis=0) / den, np.nan))
+              for k, a in alone.items()}
+    rest = (zero_to_rounding(1.0 - sum(shares.values())) if shares
+            else np.where(ok, 1.0, np.nan))
     return shares, rest
+
+
+def zero_to_rounding(share):
+    """`share` [1] (a share of a variance, or the rest 1 - a sum of shares) with values
+    within :data:`ZERO_SHARE_REL` of 0 set to exactly 0.0 (NaN and the others kept).
+
+    >>> zero_to_rounding(np.array([2.3e-29, -1.1e-16, 0.25, 1e-9, np.nan])).tolist()
+    [0.0, 0.0, 0.25, 1e-09, nan]
+    """
+    s = np.asarray(share, dtype=float)
+    return np.where(np.abs(s) <= ZERO_SHARE_REL, 0.0, s)
 
 
 def _moves_nothing(noise) -> bool:
@@ -241,8 +264,8 @@ def variance_shares(result, study, options: UncertaintyOptions, which: str = "sp
         lin, rest = first_order_shares(full, alone)
         lg, rest_lg = first_order_shares(full, alone, log=True)
         if main:
-            rest = 1.0 - sum(lin[n] for n in main)
-            rest_lg = 1.0 - sum(lg[n] for n in main)
+            rest = zero_to_rounding(1.0 - sum(lin[n] for n in main))
+            rest_lg = zero_to_rounding(1.0 - sum(lg[n] for n in main))
         one = (np.where(np.isfinite(rest), 1.0, np.nan), np.where(np.isfinite(rest_lg), 1.0,
                                                                   np.nan))
         rows = [("all", "", one, full)]

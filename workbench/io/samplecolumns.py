@@ -300,3 +300,62 @@ def all_masked(conc, masked_why, sites, rows) -> str:
                 if more > 0 else "")
             out.setdefault(sp, {})[str(site)] = text
     return json.dumps(out, sort_keys=True)
+
+
+#: Attribute of the air Dataset (JSON): the masked rows of each species in runs of one
+#: site and reason (rows merged where each starts at or before the end of the one
+#: before), ``{"reasons": [...], "runs": {species: {"site": [...], "start": [...],
+#: "end": [...], "why": [...], "rows": [...]}}}``: start and end in seconds since
+#: 1970-01-01 on the Dataset's own clock (its ``start`` and ``end``), ``why`` an index
+#: into ``reasons`` (the reader's reason without its ``(masked)``), ``rows`` how many
+#: rows the run holds.  The budget's note of a period whose values were all masked says
+#: so with the reason (:func:`workbench.dryrows.masked_runs`), apart from a period with
+#: no samples at all.
+MASKED_RUNS_ATTR = "masked_runs"
+
+
+def masked_runs(masked_why, sites, start, end, rows) -> str:
+    """:data:`MASKED_RUNS_ATTR` of an air file as JSON.
+
+    Parameters
+    ----------
+    masked_why : dict
+        Species -> the reason of each masked row ("" where not masked;
+        :func:`_concentrations`), with or without its ``(masked)``.
+    sites : ndarray of str
+        The site of each row.
+    start, end : ndarray of datetime64
+        The row's sampling period (as written to the Dataset).
+    rows : ndarray of bool
+        The rows that count (a dropped exact repeat does not).
+
+    Returns
+    -------
+    str
+        ``{"reasons": ["NH3 values look 1000x too high at this sampler: ..."], "runs":
+        {"NH3": {"site": ["ridge"], "start": [1577977200], "end": [1610031600], "why":
+        [0], "rows": [53]}}}``; ``{"reasons": [], "runs": {}}`` when no row was masked.
+    """
+    import json
+
+    out, reasons = {}, {}
+    for sp, why in masked_why.items():
+        hit = (np.asarray(why) != "") & rows
+        if not hit.any():
+            continue
+        text = pd.Series(np.asarray(why)[hit]).str.replace(r" \(masked\)$", "", regex=True)
+        local, uniq = pd.factorize(text)                # the few distinct reasons
+        code = np.asarray([reasons.setdefault(t, len(reasons)) for t in uniq], int)[local]
+        f = pd.DataFrame({"site": np.asarray(sites)[hit].astype(str), "why": code,
+                          "start": np.asarray(start)[hit].astype("datetime64[s]").astype(np.int64),
+                          "end": np.asarray(end)[hit].astype("datetime64[s]").astype(np.int64)})
+        f = f.sort_values(["site", "why", "start", "end"], kind="stable").reset_index(drop=True)
+        reach = f.groupby(["site", "why"], sort=False)["end"].cummax().shift()
+        same = (f["site"].eq(f["site"].shift()) & f["why"].eq(f["why"].shift())
+                & (f["start"] <= reach))
+        run = (~same).cumsum().to_numpy()
+        g = f.groupby(run, sort=True)
+        out[sp] = {"site": g["site"].first().tolist(), "start": g["start"].min().tolist(),
+                   "end": g["end"].max().tolist(), "why": g["why"].first().tolist(),
+                   "rows": g.size().tolist()}
+    return json.dumps({"reasons": list(reasons), "runs": out}, sort_keys=True)

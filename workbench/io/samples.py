@@ -25,7 +25,8 @@ from .ledger import Ledger
 from .samplerids import check_spellings, typo_notes
 from .shifted import check_shifted
 # the columns and cells of the sample files (defined here before)
-from .samplecolumns import (ALL_MASKED_ATTR, PERIOD_HINTS,  # noqa: F401
+from .samplecolumns import (ALL_MASKED_ATTR, MASKED_RUNS_ATTR, PERIOD_HINTS,  # noqa: F401
+                            masked_runs,
                             PRECIP_NEGATIVE_TOL_MG_L, REQUIRED_EXAMPLES, _NOT_SPECIES, all_masked, _TRACE_TEXTS, _concentrations, _flag_words,
                             _interval_table, _mask_sentinels, _sentinel_reasons,
                             _species_columns, _to_amount_by_unit, _trace_depth_error)
@@ -366,7 +367,9 @@ def read_air(path, catalogue, reference_state=None):
             dvars[f"{sp}_method"] = ("period", methods[sp][keep].astype(str))
     ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path),
                                   "reference_state": str(ref_text) if needs_ref else "none needed",
-                                  ALL_MASKED_ATTR: all_masked(conc, masked_why, sites, ~repeat)})
+                                  ALL_MASKED_ATTR: all_masked(conc, masked_why, sites, ~repeat),
+                                  MASKED_RUNS_ATTR: masked_runs(masked_why, sites, start, end,
+                                                                ~repeat)})
     ledger.notes.extend(tab.unit_switch_notes + _air_slips(tab, ds, cols, keep))
     ledger.notes.extend(typo_notes(tab.path.name, sites[keep], samplers[keep], tab.lines[keep]))
     return ds, ledger

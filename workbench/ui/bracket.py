@@ -89,8 +89,10 @@ def bracket_line(years: xr.Dataset, derived, site, receptor, unit="kg/ha/yr",
     if not np.isfinite(b["all_gas"]) or not np.isfinite(b["all_particle"]):
         gone = _unmeasured_members(years, site, receptor)
         lost = _unmeasured_members(years, site, receptor, "every value masked")
+        lost_p = _unmeasured_members(years, site, receptor, "period masked")
         said = ([f"{' and '.join(gone)} not measured at the site"] if gone else []) + (
-            [f"{' and '.join(lost)} measured, every value masked"] if lost else [])
+            [f"{' and '.join(lost)} measured, every value masked"] if lost else []) + (
+            [f"every {' and '.join(lost_p)} value of these years masked"] if lost_p else [])
         why = (", ".join(said) if said else
                "a member of a pair has no data in them: budget.nc's bracket_*_note says "
                "which")
@@ -106,7 +108,8 @@ def bracket_line(years: xr.Dataset, derived, site, receptor, unit="kg/ha/yr",
 def _unmeasured_members(years: xr.Dataset, site, receptor, reason="not measured") -> list:
     """Members of the gas/particle pairs (:data:`workbench.budget.PAIRS`) whose dry
     component the budget notes as not measured at the site in every period (`reason`
-    "every value masked": measured, each value masked by the air reader;
+    "every value masked": measured, each value masked by the air reader; "period
+    masked": each value of each period masked;
     :func:`workbench.ui.summaries.component_reason`)."""
     from ..budget import PAIRS
     from .summaries import component_rates, component_reason

@@ -46,7 +46,8 @@ def annual_rate(ds, site, receptor, period, unit="kg/ha/yr"):
 def _hover_value(value, status, completeness, axis, note=""):
     why = f"<br>{wrap_text(note, NOTE_CHARS * 2)}" if note else ""
     if not np.isfinite(value):
-        if component_reason(note) in ("not measured", "every value masked"):   # the note says it
+        if component_reason(note) in ("not measured", "every value masked",
+                                      "period masked"):              # the note says it
             return f"{wrap_text(note, NOTE_CHARS * 2)} (status {status})"
         return f"no data (status {status}){why}"
     comp = f"{completeness:.0%}" if np.isfinite(completeness) else "n/a"
@@ -77,6 +78,8 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr", width=Non
                   if component_reason(n) == "not measured"}
     masked = {(p, sp) for p, sp, n in zip(comp["period"], comp["species"], comp["note"])
               if component_reason(n) == "every value masked"}
+    masked_p = {(p, sp) for p, sp, n in zip(comp["period"], comp["species"], comp["note"])
+                if component_reason(n) == "period masked"}
     for (el, pw, sp), g in comp.groupby(["element", "pathway", "species"], sort=False):
         name = f"{pw} {sp}"
         axis = axis_text(unit, element=el)
@@ -110,7 +113,7 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr", width=Non
             i = rows[(el, p)]
             v, stt = float(value[i]), str(status[i])
             ys.append(v if np.isfinite(v) else None)
-            miss = _missing_text(str(missing[i]), p, unmeasured, masked)
+            miss = _missing_text(str(missing[i]), p, unmeasured, masked, masked_p)
             text.append(f"{el} total {p}: {v:.3g} {axis_text(unit, element=el)}"
                         f"<br>status {stt}{miss}")
             sym.append(TOTAL_SYMBOL[stt in ("complete", "filled")])
@@ -159,16 +162,20 @@ def panel_px(width: float) -> float:
     return (width - BUDGET_LEFT_PX - BUDGET_LEGEND_PX) * (0.5 - BUDGET_PANEL_GAP / 2)
 
 
-def _missing_text(missing: str, period, unmeasured, masked=()) -> str:
-    """Hover line of a total's components without data: those not measured at the site
-    and those measured whose every value was masked (`masked`), apart from those without
-    data in the period."""
+def _missing_text(missing: str, period, unmeasured, masked=(), masked_period=()) -> str:
+    """Hover line of a total's components without data: those not measured at the site,
+    those measured whose every value was masked (`masked`), those whose samples of the
+    period were all masked (`masked_period`), apart from those without data in the
+    period."""
     names = missing.split()
     gone = [m for m in names if (period, m) in unmeasured]
     lost = [m for m in names if (period, m) in masked]
-    rest = [m for m in names if (period, m) not in unmeasured and (period, m) not in masked]
+    lost_p = [m for m in names if (period, m) in masked_period]
+    rest = [m for m in names if (period, m) not in unmeasured and (period, m) not in masked
+            and (period, m) not in masked_period]
     return (("<br>not measured at the site: " + " ".join(gone) if gone else "")
             + ("<br>measured, every value masked: " + " ".join(lost) if lost else "")
+            + ("<br>every value of the period masked: " + " ".join(lost_p) if lost_p else "")
             + ("<br>no data for " + " ".join(rest) if rest else ""))
 
 
@@ -176,7 +183,8 @@ def legend_note(traces, symbols, why=None) -> dict:
     """A note under the budget's legend on what the legend cannot say: an open diamond is
     a total that is partial or flagged, and a component listed without a bar has no data
     (its entry otherwise reads as a part of the stack): not measured at the site,
-    measured but every value masked by the air reader, counted in a bulk collector's wet
+    measured but every value masked by the air reader (at the site, or in each period
+    shown), counted in a bulk collector's wet
     deposition (a bar of 0), or no data in the periods shown.
     `why` maps a trace name to its reason (:func:`summaries.component_reason`).  Empty
     text when none of these."""
@@ -187,10 +195,12 @@ def legend_note(traces, symbols, why=None) -> dict:
     bars = [t for t in traces if t.get("type") == "bar"]
     gone = [t["name"] for t in bars if why.get(t["name"]) == "not measured"]
     lost = [t["name"] for t in bars if why.get(t["name"]) == "every value masked"]
+    lost_p = [t["name"] for t in bars if why.get(t["name"]) == "period masked"]
     caught = [t["name"] for t in bars if why.get(t["name"]) == "in the bulk wet"]
     empty = [t["name"] for t in bars if all(v is None for v in t["y"])
-             and t["name"] not in gone + lost + caught]
+             and t["name"] not in gone + lost + lost_p + caught]
     for head, names in (("not measured: ", gone), ("measured, every value masked: ", lost),
+                        ("every value of these periods masked: ", lost_p),
                         ("in the bulk collector's wet: ", caught), ("no data: ", empty)):
         if names:
             lines.append(wrap_text(head + ", ".join(names), NOTE_CHARS))

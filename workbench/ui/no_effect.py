@@ -30,18 +30,24 @@ IN_BULK_WET = "caught by the bulk collector"
 #: The start of the note of a species measured at the site whose every value the air
 #: reader masked (:data:`workbench.budgetstatus.ALL_MASKED_NOTE`; the flag follows).
 ALL_MASKED = "measured, every value masked"
+#: The start of the note of a period whose air samples of the species were all masked
+#: (:data:`workbench.budgetstatus.PERIOD_MASKED_NOTE`; the reason follows).
+PERIOD_MASKED = "every value of the period masked"
 
 
 def component_reason(note) -> str:
     """Short reason of a component without its own bar: ``"not measured"``, ``"every
     value masked"`` (measured, but the air reader masked each value: a sampler in ng/m3
-    under a ug/m3 header, say), ``"in the bulk wet"`` or ``""`` (none of these), from
-    the budget's component `note`."""
+    under a ug/m3 header, say), ``"period masked"`` (samples in the period, each value
+    masked; other periods of the site may have values), ``"in the bulk wet"`` or ``""``
+    (none of these), from the budget's component `note`."""
     note = str(note or "")
     if note.startswith(NOT_MEASURED):
         return "not measured"
     if note.startswith(ALL_MASKED):
         return "every value masked"
+    if note.startswith(PERIOD_MASKED):
+        return "period masked"
     if note.startswith(IN_BULK_WET):
         return "in the bulk wet"
     return ""
@@ -99,7 +105,8 @@ def no_effect_text(key, label, components: pd.DataFrame, collector="wet_only",
                            f"no {species} left, both members deposit with the Vd of {into}")
     if species is not None and species in missing:
         notes = dry.loc[dry["species"] == species, "note"] if "note" in dry else ()
-        masked = len(notes) and all(component_reason(n) == "every value masked" for n in notes)
+        masked = len(notes) and all(component_reason(n) in ("every value masked",
+                                                             "period masked") for n in notes)
         reasons.append(f"every {species} value masked here (input_rows.csv says why)"
                        if masked else f"no {species} concentrations here")
     if key == "wet.seasalt_tracer" and sulfate_basis == "total":
@@ -213,6 +220,8 @@ VD_FACTOR = "vd_"
 REASON_TEXT = {"not measured": "not measured at the site",
                "every value masked": "measured at the site, every value masked "
                                      "(input_rows.csv says why)",
+               "period masked": "measured in these years, every value masked "
+                                "(input_rows.csv says why)",
                "in the bulk wet": "caught by the bulk collector, counted in its wet deposition"}
 
 

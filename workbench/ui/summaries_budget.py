@@ -189,9 +189,11 @@ def _nh3_not_measured(ds, pick) -> bool:
     return bool(len(notes)) and all(component_reason(n) == "not measured" for n in notes)
 
 
-def _nh3_masked(ds, pick) -> str:
+def _nh3_masked(ds, pick, reason="every value masked") -> str:
     """The flag of the air reader where the budget's note of the dry NH3 component says
-    "measured, every value masked" in every period of `ds` ("" otherwise)."""
+    "measured, every value masked" in every period of `ds` ("" otherwise); with `reason`
+    "period masked": "every value of the period masked" in every period (the reason of
+    the first)."""
     if "note" not in ds.variables or "species" not in ds.variables:
         return ""
     sp, pw = pick("species").astype(str), pick("pathway").astype(str)
@@ -199,7 +201,7 @@ def _nh3_masked(ds, pick) -> str:
     if not j.size:
         return ""
     notes = [str(n) for n in pick("note")[..., j[0]].reshape(-1)]
-    if not notes or not all(component_reason(n) == "every value masked" for n in notes):
+    if not notes or not all(component_reason(n) == reason for n in notes):
         return ""
     return notes[0].split(": ", 1)[-1]
 
@@ -225,6 +227,10 @@ def nh3_line(ds: xr.Dataset, site, receptor, unit="kg/ha/yr") -> str:
         if lost:
             return (f"Dry NH3: measured at this site, every value masked ({lost}); the N "
                     "totals leave it out (partial).")
+        lost = _nh3_masked(ds, pick, "period masked")
+        if lost:
+            return (f"Dry NH3: no figure (every NH3 value of these years masked: {lost}); "
+                    "the N totals leave it out (partial).")
         return "Dry NH3: no figure (no NH3 concentrations in these years)."
     mo = float(np.nanmean(only))
     if ds.attrs.get("nh3_figure") != "net" or not np.isfinite(net).any():
