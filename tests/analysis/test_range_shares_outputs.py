@@ -180,3 +180,16 @@ def test_a_factor_that_moves_nothing_is_exactly_0_in_the_file_and_tables(explain
         assert row["share of the variance"] == 0.0 and row["share of the log-variance"] == 0.0
         vals = shown[["share of the variance", "share of the log-variance"]].to_numpy(float)
         assert not (np.signbit(vals) & (vals == 0)).any()
+
+
+def test_largest_factors_of_the_file_read_back_equal_those_of_the_run(explained):
+    """Defect: range_shares.csv read back gives NaN for an empty `part_of`, which
+    `largest_factors` took for a part ("of which ...") and failed on with an IndexError
+    on a factor without a species ("vd_site_gsd")."""
+    from workbench.analysis.range_shares import largest_factors
+    back = pd.read_csv(explained["range_shares.csv"])
+    assert back["part_of"].isna().any()                 # what pandas makes of ""
+    got = largest_factors(back)
+    want = largest_factors(back.fillna({"part_of": ""}))
+    pd.testing.assert_frame_equal(got, want)
+    assert not got.empty and not got["factor"].str.startswith("of which").all()

@@ -152,8 +152,11 @@ def largest_factors(shares: pd.DataFrame, top: int = REPORT_TOP) -> pd.DataFrame
     s = s.sort_values(["site", "receptor", "period", "_t", "log_variance_share"],
                       ascending=[True, True, True, True, False], kind="stable")
     s = s.groupby(["site", "receptor", "period", "_t"], sort=False).head(top)
+    # a part names its whole in `part_of`; "" (or NaN, read back from range_shares.csv)
+    # for a factor of its own
+    part = s["part_of"].fillna("").astype(str).to_numpy() != ""
     named = [f"of which {f.split('.', 1)[1]}" if of else f
-             for f, of in zip(s["factor"], s["part_of"])]
+             for f, of in zip(s["factor"], part)]
     return pd.DataFrame({"site": s["site"].to_numpy(), "receptor": s["receptor"].to_numpy(),
                          "period": s["period"].astype(str).to_numpy(),
                          "total": s["total"].map(REPORT_TOTALS).to_numpy(), "factor": named,
