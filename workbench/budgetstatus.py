@@ -33,7 +33,8 @@ from .budgetstatus_notes import (HOURS_PER_WEEK, NO_PNA_AT_SITE,  # noqa: F401
 from .budgetstatus_dry import (ALL_MASKED_NOTE, NOT_MEASURED_NOTE,  # noqa: F401
                                unmeasured_note,
                                NH3_NET_EMISSION, bracket_outputs,
-                               bracket_velocities, bulk_caught_brackets, dry_status,
+                               bracket_velocities, bulk_caught_brackets, dry_failure_words,
+                               dry_status,
                                nh3_net_component)
 
 #: How a censored value was replaced, in words (`WetOptions.detection_limit`).
@@ -95,6 +96,9 @@ def wet_mean_status(w, name, w_status, fallback=False):
         gauge depth or where the mean has no value in a period without rain.
     gone : ndarray of bool
         The mean has no value in a period the wet chain does not call ``missing``.
+    low_words : ndarray of str
+        Where `low`: the first ion found short, its share and the minimum ("SO4 valid
+        for 42.9 % of the precipitation only (minimum 70 %)"); '' elsewhere.
     """
     dims = ("site", "period")
     v = w.variables
@@ -140,6 +144,7 @@ def wet_mean_status(w, name, w_status, fallback=False):
     have = list(w["ion"].values) if "ion" in w.coords else []
     share = np.full(shape, np.inf)
     low = np.zeros(shape, bool)
+    low_words = np.full(shape, "", dtype=object)
     for i in [ion] + ([tracer] if name != ion else []):
         if "ion_valid_precip_fraction" not in v or i not in have:
             continue
@@ -153,8 +158,10 @@ def wet_mean_status(w, name, w_status, fallback=False):
             # 'filled', docs/methods_wet.md section 7)
             low_i &= ~as_flag(w["ion_filled"].sel(ion=i).transpose(*dims).values)
         pct = np.round(100 * np.nan_to_num(frac), 1).astype(str)
-        notes.append((low_i, np.char.add(np.char.add(f"{i} valid for ", pct),
-                                         " % of the precipitation only")))
+        words = np.char.add(np.char.add(f"{i} valid for ", pct),
+                            f" % of the precipitation only (minimum {100 * need:g} %)")
+        notes.append((low_i, words))
+        low_words = np.where(low_i & ~low, words, low_words)
         low |= low_i
         share = np.fmin(share, np.where(precip > 0, frac, np.where(precip == 0, 1.0, np.nan)))
     share = np.where(np.isinf(share), np.nan, share)
@@ -180,7 +187,7 @@ def wet_mean_status(w, name, w_status, fallback=False):
     gone = ~np.isfinite(dep) & (status != "missing")
     share = np.where(~np.isfinite(dep) & ~(precip > 0), np.nan, share)
     status = np.where(~np.isfinite(dep), "missing", status).astype(object)
-    return status, low, notes, share, gone
+    return status, low, notes, share, gone, low_words
 
 
 def wet_sulfate_total(w, options) -> np.ndarray:
@@ -206,7 +213,7 @@ def wet_sulfate_total(w, options) -> np.ndarray:
     return as_flag(w.variables["nssSO4_total_used"].values)
 
 
-def wet_component(w, sp, options, w_status, w_fail, with_share=False):
+def wet_component(w, sp, options, w_status, w_fail, with_share=False, with_failure=False):
     """Deposition, status, completeness failure and note of a wet component.
 
     The status is :func:`wet_mean_status` of the component's mean (``nss<sp>`` on the
@@ -224,26 +231,30 @@ def wet_component(w, sp, options, w_status, w_fail, with_share=False):
     with_share : bool
         Also return the share of the precipitation with a valid value of the ion (and,
         for nss SO4, of its tracer) [1] (:func:`wet_mean_status`).
+    with_failure : bool
+        Also (after the share) the first completeness criterion failed, in words with
+        its share and minimum ('' where the component passes).
 
     Returns
     -------
     status, note : ndarray of str
     deposition : ndarray [mol m-2] or None (no such column)
     fails : ndarray of bool
-    share : ndarray [1] (with `with_share`)
+    share : ndarray [1] (with `with_share` or `with_failure`)
+    failure : ndarray of str (with `with_failure`)
     """
     v = w.variables
     nss = sp == "SO4" and options.sulfate_basis == "nss"
     name = f"nss{sp}" if nss and "dep_nssSO4" in v else sp
     if f"dep_{name}" not in v:
-        return (None,) * (5 if with_share else 4)
+        return (None,) * (6 if with_failure else 5 if with_share else 4)
     d = v[f"dep_{name}"].values.astype(float)
     reasons = v["completeness_reasons"].values.astype(object) if "completeness_reasons" in v \
         else np.full(d.shape, "", object)
     reasons = np.where(pd.isna(reasons), "", reasons).astype(object)   # sites without samples
     note = np.where(w_status != "complete", reasons, "").astype(object)
-    status, low_ion, notes, share, gone = wet_mean_status(w, name, w_status,
-                                                          fallback=nss and name == sp)
+    status, low_ion, notes, share, gone, low_words = wet_mean_status(
+        w, name, w_status, fallback=nss and name == sp)
     for hit, text in notes:
         note = np.where(hit, join_notes(note, text), note)
     precip = v["precipitation"].values if "precipitation" in v else np.full(d.shape, np.nan)
@@ -253,6 +264,15 @@ def wet_component(w, sp, options, w_status, w_fail, with_share=False):
     note = np.where((status == "missing") & (note == ""), "no precipitation samples in the "
                     "period", note)
     fails = (w_fail | low_ion) & (status != "missing")
+    # the first criterion failed, in words: the period's (gauge, coverage, valid
+    # precipitation, valid samples), else the ion's share of the rain
+    period_words = (v["completeness_failure"].values.astype(object)
+                    if "completeness_failure" in v else np.full(d.shape, "", object))
+    period_words = np.where(pd.isna(period_words), "", period_words)
+    period_words = np.where(w_fail & (period_words == ""), "fails completeness", period_words)
+    failure = np.where(fails, np.where(w_fail, period_words, low_words), "").astype(object)
+    if with_failure:
+        return status, note, d, fails, share, failure
     return (status, note, d, fails, share) if with_share else (status, note, d, fails)
 
 
