@@ -95,6 +95,8 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
     t = tot[tot["pathway"] == "total"]
     rows = {(e, p): i for i, (e, p) in enumerate(zip(t["element"], t["period"]))}
     value, status, missing = t["value"].to_numpy(), t["status"].to_numpy(), t["missing"].to_numpy()
+    fails = ~t["passes"].to_numpy(bool) & (status != "missing")
+    failure = t["failure"].to_numpy()
     xs_el, xs_p, ys, text, sym = [], [], [], [], []
     for el in ELEMENTS:
         for p in periods:
@@ -104,8 +106,11 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr") -> dict:
             xs_p.append(p)
             ys.append(v if np.isfinite(v) else None)
             miss = _missing_text(str(missing[i]), p, unmeasured, masked)
+            # a total failing completeness says so (a flagged one may also pass)
+            fail = (f"<br>fails completeness: {failure[i] or 'see the notes'}" if fails[i]
+                    else "")
             text.append(f"{el} total {p}: {v:.3g} {axis_text(unit, element=el)}"
-                        f"<br>status {stt}{miss}")
+                        f"<br>status {stt}{miss}{fail}")
             sym.append(TOTAL_SYMBOL[stt in ("complete", "filled")])
     traces.append({
         "type": "scatter", "x": [xs_el, xs_p], "y": ys, "mode": "markers", "name": "total",
