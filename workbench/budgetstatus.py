@@ -276,6 +276,14 @@ def wet_component(w, sp, options, w_status, w_fail, with_share=False, with_failu
     return (status, note, d, fails, share) if with_share else (status, note, d, fails)
 
 
+def _words(v, name, shape):
+    """Text variable `name` of `v` with NaN (a site without samples) read as '' [text]."""
+    if name not in v:
+        return np.full(shape, "", dtype=object)
+    words = v[name].values.astype(object)
+    return np.where(pd.isna(words), "", words).astype(object)
+
+
 def wet_outputs(w: xr.Dataset):
     """Precipitation depth, precipitation-weighted means, free acidity of the wet chain.
 
@@ -290,7 +298,8 @@ def wet_outputs(w: xr.Dataset):
         ``precipitation`` [mm], ``pwm`` (site, period, wet_ion) [mol m-3],
         ``pH_pwm`` [1] (pH of the PWM of H+), ``wet_H_deposition`` [mol m-2] (free
         acidity: the PWM of H+ times the depth), ``wet_status`` (the period status of
-        the wet chain) and ``wet_flagged_share`` [1].
+        the wet chain), ``wet_passes`` (it passes completeness), ``wet_completeness_failure``
+        (the first criterion it fails, in words) and ``wet_flagged_share`` [1].
     ions : list of str
         The ``wet_ion`` coordinate (the ions, H, and non-sea-salt ions).
     """
@@ -313,6 +322,14 @@ def wet_outputs(w: xr.Dataset):
         "wet_flagged_share": get("flagged_precip_fraction", "1", "share of the precipitation "
                                  "carried by kept samples that failed a check"),
         "wet_status": xr.Variable(dims, st, {"long_name": "status of the wet chain's period"}),
+        "wet_passes": xr.Variable(dims, ~(as_flag(v["completeness_failed"].values)
+                                          if "completeness_failed" in v
+                                          else st == "flagged") & (st != "missing"), {
+            "long_name": "the wet chain's period passes completeness (a flagged one may, "
+                         "with kept flagged samples)"}),
+        "wet_completeness_failure": xr.Variable(dims, _words(v, "completeness_failure", shape), {
+            "long_name": "the first completeness criterion the wet chain's period fails, "
+                         "with its share and minimum"}),
         "pwm": xr.Variable(dims + ("wet_ion",),
                            np.stack([v[f"pwm_{i}"].values for i in ions], -1) if ions
                            else np.zeros(shape + (0,)),

@@ -83,6 +83,10 @@ def summary_table(result) -> pd.DataFrame:
         frame["precipitation_mm"] = wet("precipitation")
         frame["pH_pwm"] = wet("pH_pwm")
         frame["wet_status"] = wet("wet_status")
+        if "wet_passes" in ds:                 # a flagged wet period may pass or fail
+            frame["wet_passes"] = wet("wet_passes").astype(bool)
+            why = wet("wet_completeness_failure")
+            frame["wet_completeness_failure"] = np.where(pd.isna(why), "", why)
         frame["wet_flagged_share"] = wet("wet_flagged_share")
         pwm = ds["pwm"].transpose("site", "period", "wet_ion").values[si, pi]
         for k, ion in enumerate(ds["wet_ion"].values.astype(str)):
