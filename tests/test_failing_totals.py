@@ -180,3 +180,16 @@ def test_notebook_summaries_say_fails_completeness(runs):
     hover = [x for x in fig.data[-1].customdata]
     assert sum("fails completeness: SO4: gauge record" in h for h in hover) == 1
     assert not any("fails completeness" in h for h in hover if " 2022:" in h)
+
+
+def test_network_table_writes_the_reason_whole():
+    """The notebook's table of totals (a ShownTable marked ``whole_text``) writes the
+    reason with its minimum; pandas cut text cells at 50 characters, leaving "fails:
+    SO4: gauge record below minimum (51.1 %..." without the minimum."""
+    from workbench.ui.shown_table import ShownTable
+    why = "fails: SO4: gauge record below minimum (51.1 % of the period; minimum 90 %)"
+    t = ShownTable({"S total [kg/ha/yr]": [3.0], "S completeness": [why]})
+    assert why not in t._repr_html_()                      # pandas' default cut
+    t.attrs["whole_text"] = True
+    assert why in t._repr_html_() and why in repr(t)
+    assert "3.00" in t._repr_html_()                       # the numbers as before

@@ -424,7 +424,9 @@ class NetworkOverview(SavedText, widgets.VBox):
                 cols[f"{el} completeness"] = wide[("completeness", el)]
                 cols[f"{el} without data"] = wide[("missing", el)].replace(
                     {"": "-", "nan": "-"}).fillna("-")
-        return ShownTable(cols)
+        shown = ShownTable(cols)
+        shown.attrs["whole_text"] = True             # the reason with its minimum, whole
+        return shown
 
     def _draw(self, create=False):
         unit = self.unit_w.value
