@@ -58,8 +58,8 @@ def _gauge_share_by_hand(site: str, year: int) -> float:
     docs/methods_wet.md section 7)."""
     p = pd.read_csv(DEMO / "precipitation.csv")
     p = p[(p["site"] == site) & p["gauge_depth [mm]"].notna() & (p["start"] < CUT)]
-    y0, y1 = pd.Timestamp(f"{year}-01-01"), pd.Timestamp(f"{year + 1}-01-01")
-    hours = pd.date_range(y0, y1, freq="h", inclusive="left")
+    first, after = pd.Timestamp(f"{year}-01-01"), pd.Timestamp(f"{year + 1}-01-01")
+    hours = pd.date_range(first, after, freq="h", inclusive="left")
     covered = np.zeros(len(hours), bool)
     for s, e in zip(pd.to_datetime(p["start"]), pd.to_datetime(p["end"])):
         covered |= (hours >= s) & (hours < e)
