@@ -17,7 +17,8 @@ from .budget_components import (BULK_CAUGHT_IN, COMPONENTS, FRACTIONS, OMISSIONS
 from .budget_options import BudgetError, BudgetOptions
 from .budget_totals import _totals
 from .budgetstatus import (NO_PNA_AT_SITE, as_flag, bracket_outputs, bulk_caught_brackets,
-                           dry_status, join_notes, nh3_net_component, sampling_gap_note,
+                           dry_failure_words, dry_status, join_notes, nh3_net_component,
+                           sampling_gap_note,
                            wet_component, wet_outputs, wet_sulfate_total)
 from .surfacehistory import collector_shares, period_notes
 
@@ -67,6 +68,8 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     comp_note = np.full((n_s, n_r, n_p, n_c), "", dtype=object)
     #: a present component fails completeness (flagged for coverage, not for a flag)
     fails = np.zeros((n_s, n_r, n_p, n_c), bool)
+    #: where it fails: the first criterion failed, in words with its share and minimum
+    failure = np.full((n_s, n_r, n_p, n_c), "", dtype=object)
     active = np.array([[r in catalogue[s].surfaces for r in receptors] for s in sites])
     # the collector in force over each period (docs/budget.md, "Bulk collectors": a
     # declared collector change is followed): share of the period's hours under bulk
@@ -114,8 +117,8 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             if wet is None:
                 comp_note[..., j] = "no precipitation chemistry input"
                 continue
-            st, note, d, fl, ion_share = wet_component(w, sp, options, w_status, w_fail,
-                                                       with_share=True)
+            st, note, d, fl, ion_share, why_fail = wet_component(
+                w, sp, options, w_status, w_fail, with_failure=True)
             if d is None:
                 comp_note[..., j] = f"no {sp} column in the precipitation chemistry"
                 continue
@@ -143,6 +146,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             dep[:, :, :, j] = d[:, None, :]
             status[:, :, :, j] = st[:, None, :]
             fails[:, :, :, j] = fl[:, None, :]
+            failure[:, :, :, j] = why_fail[:, None, :]
             comp_note[:, :, :, j] = note[:, None, :]
             # the smallest of the period's fractions and the share of its rain with a
             # value of this ion (and tracer), the criterion the row is judged by
@@ -182,6 +186,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                                      masked=mk[:, None, None], period_masked=pm[:, None, :])
             why = sampling_gap_note(why, st, cov, hours_p[None, None, :], "air")
             fails[..., j] = fl
+            failure[..., j] = np.where(fl, dry_failure_words(cov, fc, sok, options), "")
             comp_note[..., j] = why
             c = np.fmin(np.fmin(cov, fc), vdc)
             if sp in PARTICLES and options.bulk_correction == "exclude_particles":
@@ -205,6 +210,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                 st = np.where(excl, status[..., jw], st)
                 c = np.where(excl, compl[..., jw], c)
                 fails[..., j] = np.where(excl, False, fails[..., j])
+                failure[..., j] = np.where(excl, "", failure[..., j])
                 comp_note[..., j] = np.where(excl, f"caught by the bulk collector: counted in "
                                              f"its wet {ion} deposition, 0 here (the scenario's "
                                              "bulk_correction = \"exclude_particles\")",
@@ -302,6 +308,10 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             "note": xr.Variable(dims, comp_note),
             "fails_completeness": xr.Variable(dims, fails & (status != "missing"), {
                 "long_name": "the component fails a completeness criterion"}),
+            "completeness_failure": xr.Variable(dims, np.where(
+                fails & (status != "missing"), failure, "").astype(object), {
+                "long_name": "the first completeness criterion the component fails, with "
+                             "its share and minimum"}),
             "status": xr.Variable(dims, status),
             "active": xr.Variable(("site", "receptor"), active),
             "nh3_deposition_only": xr.Variable(dims[:3], nh3_only, {
@@ -310,7 +320,8 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             "nh3_net": xr.Variable(dims[:3], nh3_net, {
                 "units": "mol m-2", "long_name": "net dry NH3 exchange, deposition - emission "
                 "(positive down; NaN unless nh3_treatment = bidirectional)"})}
-    names, totals = _totals(dep, status, compl, elements, pathways, species, fails)
+    names, totals = _totals(dep, status, compl, elements, pathways, species, fails,
+                            failure)
     data.update(totals)
     if (lu != "").any() or (coll_words != "").any():
         # the sums of a period under another surface or collector say so too

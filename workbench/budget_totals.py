@@ -47,7 +47,7 @@ def sum_present(values):
     return np.where(np.isfinite(values).any(-1), np.nansum(values, -1), np.nan)
 
 
-def _totals(dep, status, compl, element, pathway, species, fails=None):
+def _totals(dep, status, compl, element, pathway, species, fails=None, failure=None):
     """Per-element sums by pathway and their status, from the component arrays.
 
     Parameters
@@ -61,6 +61,10 @@ def _totals(dep, status, compl, element, pathway, species, fails=None):
         ``flagged`` for another reason (kept flagged samples, a sulfate basis that
         fell back) is named in ``total_flagged_components`` but does not make the
         sum fail.  Default: every ``flagged`` component fails.
+    failure : ndarray of str, optional
+        (..., component): where a component fails, the first criterion it fails in
+        words (:func:`workbench.budgetstatus.wet_component`,
+        :func:`workbench.budgetstatus.dry_failure_words`).
 
     Returns
     -------
@@ -69,11 +73,16 @@ def _totals(dep, status, compl, element, pathway, species, fails=None):
     variables : dict
         ``total_deposition`` [mol m-2], ``total_status``, ``total_passes``,
         ``total_missing_components``, ``total_flagged_components``,
-        ``total_completeness`` [1] as xarray Variables with dims (site, receptor,
-        period, total).
+        ``total_completeness`` [1], ``total_completeness_failure`` (where the sum does
+        not pass for a failing component: that of the first such component, after the
+        species that fail for the same words, ``NO3 NH4: gauge record below minimum
+        (49.7 % of the period; minimum 90 %)``; '' elsewhere) as xarray Variables
+        with dims (site, receptor, period, total).
     """
     if fails is None:
         fails = np.asarray(status, dtype=object) == "flagged"
+    if failure is None:
+        failure = np.where(fails, "fails completeness", "").astype(object)
     out = {}
     for e in ("S", "N"):
         for p in ("wet", "dry", "total"):
@@ -97,7 +106,9 @@ def _totals(dep, status, compl, element, pathway, species, fails=None):
                 worst = (np.fmin.reduce(np.where(st == "missing", np.nan, compl[..., sel]),
                                         axis=-1)
                          if (st != "missing").any() else np.full(total.shape, np.nan))
-            out[f"{e}_{p}"] = (total, combined, passes, absent, worst, flagged)
+            out[f"{e}_{p}"] = (total, combined, passes, absent, worst, flagged,
+                               _first_failure(fails[..., sel] & (st != "missing"),
+                                              failure[..., sel], species[sel]))
     names = list(out)
     dims = ("site", "receptor", "period", "total")
 
@@ -114,7 +125,37 @@ def _totals(dep, status, compl, element, pathway, species, fails=None):
                                                 {"long_name": "components without data"}),
         "total_flagged_components": xr.Variable(dims, stack(5),
                                                 {"long_name": "components with status flagged"}),
-        "total_completeness": xr.Variable(dims, stack(4), {"units": "1"})}
+        "total_completeness": xr.Variable(dims, stack(4), {"units": "1"}),
+        "total_completeness_failure": xr.Variable(dims, stack(6), {
+            "long_name": "the first completeness criterion a component of the sum fails, "
+                         "with its share and minimum, after the species failing for it"})}
+
+
+def _first_failure(fails, words, species):
+    """The first failing component's words after the species that fail for the same
+    words ("NO3 NH4: gauge record below minimum (...)"); '' where none fails.
+
+    Parameters
+    ----------
+    fails : ndarray of bool (..., component)
+    words : ndarray of str (..., component)
+    species : ndarray of str (component,)
+
+    Returns
+    -------
+    ndarray of str (...)
+    """
+    words = np.where(fails, np.asarray(words, dtype=object), "")
+    words = np.where(fails & (words == ""), "fails completeness", words)
+    shape = fails.shape[:-1]
+    first = np.full(shape, "", dtype=object)
+    for k in range(fails.shape[-1]):                 # over the components, a few
+        first = np.where((first == "") & fails[..., k], words[..., k], first)
+    names = np.full(shape, "", dtype=object)
+    for k, spn in enumerate(species):
+        same = fails[..., k] & (words[..., k] == first) & (first != "")
+        names = np.where(same, np.where(names == "", spn, names + " " + spn), names)
+    return np.where(first == "", "", names + ": " + first).astype(object)
 
 
 def add_totals(ds: xr.Dataset) -> xr.Dataset:

@@ -34,7 +34,8 @@ from .budgetstatus_dry import (ALL_MASKED_NOTE, NOT_MEASURED_NOTE,  # noqa: F401
                                NO_CONCENTRATION_NOTE, PERIOD_MASKED_NOTE,
                                no_concentration_note, unmeasured_note,
                                NH3_NET_EMISSION, bracket_outputs,
-                               bracket_velocities, bulk_caught_brackets, dry_status,
+                               bracket_velocities, bulk_caught_brackets, dry_failure_words,
+                               dry_status,
                                nh3_net_component)
 
 #: How a censored value was replaced, in words (`WetOptions.detection_limit`).
@@ -96,6 +97,9 @@ def wet_mean_status(w, name, w_status, fallback=False):
         gauge depth or where the mean has no value in a period without rain.
     gone : ndarray of bool
         The mean has no value in a period the wet chain does not call ``missing``.
+    low_words : ndarray of str
+        Where `low`: the first ion found short, its share and the minimum ("SO4 valid
+        for 42.9 % of the precipitation only (minimum 70 %)"); '' elsewhere.
     """
     dims = ("site", "period")
     v = w.variables
@@ -141,6 +145,7 @@ def wet_mean_status(w, name, w_status, fallback=False):
     have = list(w["ion"].values) if "ion" in w.coords else []
     share = np.full(shape, np.inf)
     low = np.zeros(shape, bool)
+    low_words = np.full(shape, "", dtype=object)
     for i in [ion] + ([tracer] if name != ion else []):
         if "ion_valid_precip_fraction" not in v or i not in have:
             continue
@@ -154,8 +159,10 @@ def wet_mean_status(w, name, w_status, fallback=False):
             # 'filled', docs/methods_wet.md section 7)
             low_i &= ~as_flag(w["ion_filled"].sel(ion=i).transpose(*dims).values)
         pct = np.round(100 * np.nan_to_num(frac), 1).astype(str)
-        notes.append((low_i, np.char.add(np.char.add(f"{i} valid for ", pct),
-                                         " % of the precipitation only")))
+        words = np.char.add(np.char.add(f"{i} valid for ", pct),
+                            f" % of the precipitation only (minimum {100 * need:g} %)")
+        notes.append((low_i, words))
+        low_words = np.where(low_i & ~low, words, low_words)
         low |= low_i
         share = np.fmin(share, np.where(precip > 0, frac, np.where(precip == 0, 1.0, np.nan)))
     share = np.where(np.isinf(share), np.nan, share)
@@ -181,7 +188,7 @@ def wet_mean_status(w, name, w_status, fallback=False):
     gone = ~np.isfinite(dep) & (status != "missing")
     share = np.where(~np.isfinite(dep) & ~(precip > 0), np.nan, share)
     status = np.where(~np.isfinite(dep), "missing", status).astype(object)
-    return status, low, notes, share, gone
+    return status, low, notes, share, gone, low_words
 
 
 def wet_sulfate_total(w, options) -> np.ndarray:
@@ -207,7 +214,7 @@ def wet_sulfate_total(w, options) -> np.ndarray:
     return as_flag(w.variables["nssSO4_total_used"].values)
 
 
-def wet_component(w, sp, options, w_status, w_fail, with_share=False):
+def wet_component(w, sp, options, w_status, w_fail, with_share=False, with_failure=False):
     """Deposition, status, completeness failure and note of a wet component.
 
     The status is :func:`wet_mean_status` of the component's mean (``nss<sp>`` on the
@@ -225,26 +232,30 @@ def wet_component(w, sp, options, w_status, w_fail, with_share=False):
     with_share : bool
         Also return the share of the precipitation with a valid value of the ion (and,
         for nss SO4, of its tracer) [1] (:func:`wet_mean_status`).
+    with_failure : bool
+        Also (after the share) the first completeness criterion failed, in words with
+        its share and minimum ('' where the component passes).
 
     Returns
     -------
     status, note : ndarray of str
     deposition : ndarray [mol m-2] or None (no such column)
     fails : ndarray of bool
-    share : ndarray [1] (with `with_share`)
+    share : ndarray [1] (with `with_share` or `with_failure`)
+    failure : ndarray of str (with `with_failure`)
     """
     v = w.variables
     nss = sp == "SO4" and options.sulfate_basis == "nss"
     name = f"nss{sp}" if nss and "dep_nssSO4" in v else sp
     if f"dep_{name}" not in v:
-        return (None,) * (5 if with_share else 4)
+        return (None,) * (6 if with_failure else 5 if with_share else 4)
     d = v[f"dep_{name}"].values.astype(float)
     reasons = v["completeness_reasons"].values.astype(object) if "completeness_reasons" in v \
         else np.full(d.shape, "", object)
     reasons = np.where(pd.isna(reasons), "", reasons).astype(object)   # sites without samples
     note = np.where(w_status != "complete", reasons, "").astype(object)
-    status, low_ion, notes, share, gone = wet_mean_status(w, name, w_status,
-                                                          fallback=nss and name == sp)
+    status, low_ion, notes, share, gone, low_words = wet_mean_status(
+        w, name, w_status, fallback=nss and name == sp)
     for hit, text in notes:
         note = np.where(hit, join_notes(note, text), note)
     precip = v["precipitation"].values if "precipitation" in v else np.full(d.shape, np.nan)
@@ -254,7 +265,24 @@ def wet_component(w, sp, options, w_status, w_fail, with_share=False):
     note = np.where((status == "missing") & (note == ""), "no precipitation samples in the "
                     "period", note)
     fails = (w_fail | low_ion) & (status != "missing")
+    # the first criterion failed, in words: the period's (gauge, coverage, valid
+    # precipitation, valid samples), else the ion's share of the rain
+    period_words = (v["completeness_failure"].values.astype(object)
+                    if "completeness_failure" in v else np.full(d.shape, "", object))
+    period_words = np.where(pd.isna(period_words), "", period_words)
+    period_words = np.where(w_fail & (period_words == ""), "fails completeness", period_words)
+    failure = np.where(fails, np.where(w_fail, period_words, low_words), "").astype(object)
+    if with_failure:
+        return status, note, d, fails, share, failure
     return (status, note, d, fails, share) if with_share else (status, note, d, fails)
+
+
+def _words(v, name, shape):
+    """Text variable `name` of `v` with NaN (a site without samples) read as '' [text]."""
+    if name not in v:
+        return np.full(shape, "", dtype=object)
+    words = v[name].values.astype(object)
+    return np.where(pd.isna(words), "", words).astype(object)
 
 
 def wet_outputs(w: xr.Dataset):
@@ -271,7 +299,8 @@ def wet_outputs(w: xr.Dataset):
         ``precipitation`` [mm], ``pwm`` (site, period, wet_ion) [mol m-3],
         ``pH_pwm`` [1] (pH of the PWM of H+), ``wet_H_deposition`` [mol m-2] (free
         acidity: the PWM of H+ times the depth), ``wet_status`` (the period status of
-        the wet chain) and ``wet_flagged_share`` [1].
+        the wet chain), ``wet_passes`` (it passes completeness), ``wet_completeness_failure``
+        (the first criterion it fails, in words) and ``wet_flagged_share`` [1].
     ions : list of str
         The ``wet_ion`` coordinate (the ions, H, and non-sea-salt ions).
     """
@@ -294,6 +323,14 @@ def wet_outputs(w: xr.Dataset):
         "wet_flagged_share": get("flagged_precip_fraction", "1", "share of the precipitation "
                                  "carried by kept samples that failed a check"),
         "wet_status": xr.Variable(dims, st, {"long_name": "status of the wet chain's period"}),
+        "wet_passes": xr.Variable(dims, ~(as_flag(v["completeness_failed"].values)
+                                          if "completeness_failed" in v
+                                          else st == "flagged") & (st != "missing"), {
+            "long_name": "the wet chain's period passes completeness (a flagged one may, "
+                         "with kept flagged samples)"}),
+        "wet_completeness_failure": xr.Variable(dims, _words(v, "completeness_failure", shape), {
+            "long_name": "the first completeness criterion the wet chain's period fails, "
+                         "with its share and minimum"}),
         "pwm": xr.Variable(dims + ("wet_ion",),
                            np.stack([v[f"pwm_{i}"].values for i in ions], -1) if ions
                            else np.zeros(shape + (0,)),

@@ -58,6 +58,42 @@ def unmeasured_note(masked) -> np.ndarray:
                     np.char.add(ALL_MASKED_NOTE + ": ", m)).astype(object)
 
 
+def dry_failure_words(coverage, flux_cov, season_ok, options):
+    """The first completeness criterion a dry component fails, in words with its share
+    and the minimum ('' where none fails; :func:`dry_status` decides where it fails).
+
+    Parameters
+    ----------
+    coverage, flux_cov : ndarray
+        Share of the period's hours with a concentration, and in sampling periods whose
+        flux is known [1].
+    season_ok : ndarray of bool
+    options : BudgetOptions
+
+    Returns
+    -------
+    ndarray of str
+
+    >>> from workbench.budget_options import BudgetOptions
+    >>> dry_failure_words(np.array([0.5, 1.0]), np.array([0.5, 1.0]), np.array([True, True]),
+    ...                   BudgetOptions()).tolist()
+    ['air coverage below minimum (50.0 % of the period; minimum 75 %)', '']
+    """
+    need = options.min_air_coverage
+    cov, fc = np.asarray(coverage, float), np.asarray(flux_cov, float)
+
+    def words(label, frac):
+        pct = np.char.mod("%.1f", 100.0 * np.nan_to_num(frac))
+        return np.char.add(np.char.add(f"{label} (", pct),
+                           f" % of the period; minimum {100.0 * need:g} %)").astype(object)
+    out = np.full(np.broadcast(cov, fc, season_ok).shape, "", dtype=object)
+    low_flux = falls_short(fc, need)
+    out = np.where(low_flux, words("hours with a known flux below minimum", fc), out)
+    out = np.where(~np.asarray(season_ok, bool), "a season without concentrations", out)
+    out = np.where(falls_short(cov, need), words("air coverage below minimum", cov), out)
+    return out.astype(object)
+
+
 def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
                 options, masked="", period_masked=""):
     """Status, completeness failure and reason of a dry component.

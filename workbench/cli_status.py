@@ -1,5 +1,6 @@
 """What ``workbench run`` prints after a run: the budgets' status counts, the notes on
-the run's span and the sites whose totals are not complete.
+the run's span, the sites whose totals are not complete and the site-periods whose
+totals fail completeness.
 
 Part of :mod:`workbench.cli`, which re-exports every name here.
 """
@@ -8,8 +9,10 @@ from __future__ import annotations
 
 def status_lines(table, inputs) -> list[str]:
     """What a run's budgets hold, for the console: per element the status counts of the
-    total budget of each site, receptor and period; with the coverage warnings when
-    every one is missing (:func:`workbench.preflight.coverage_notes`)."""
+    total budget of each site, receptor and period (the flagged ones that fail
+    completeness counted beside them: "11 flagged (2 failing completeness)"); with the
+    coverage warnings when every one is missing
+    (:func:`workbench.preflight.coverage_notes`)."""
     from .preflight import coverage_notes
     t = table[(table["period"].astype(str) != "span") & (table["species"] == "all")
               & (table["pathway"] == "total")]
@@ -23,7 +26,13 @@ def status_lines(table, inputs) -> list[str]:
         counts = g["status"].astype(str).value_counts()
         order = ["complete", "filled", "partial", "flagged", "missing"]
         keys = [k for k in order if k in counts] + [k for k in counts.index if k not in order]
-        parts.append(f"{el}: " + ", ".join(f"{int(counts[k])} {k}" for k in keys))
+        fail = 0
+        if "passes" in g:                    # flagged and failing, not only read with care
+            fail = int((~g["passes"].astype(str).str.lower().isin(("true", "1"))
+                        & (g["status"].astype(str) != "missing")).sum())
+        parts.append(f"{el}: " + ", ".join(
+            f"{int(counts[k])} {k}" + (f" ({fail} failing completeness)"
+                                       if k == "flagged" and fail else "") for k in keys))
     lines = ["budgets per site, receptor and period (total, summary.csv): " + "; ".join(parts)]
     if (t["status"].astype(str) == "missing").all():
         start = t["period_start"].min() if "period_start" in t else None
@@ -89,4 +98,47 @@ def site_status_lines(table, min_sites=None) -> list[str]:
     if lines:
         lines.insert(0, "sites whose totals are not complete (a site counts when any "
                      "receptor is; summary.csv has each; no period named = every period):")
+    return lines
+
+
+#: At most this many site-periods named one by one in :func:`failing_lines`; the rest
+#: are counted (summary.csv has each).
+FAILING_SHOWN = 8
+
+
+def failing_lines(table, shown=None) -> list[str]:
+    """The site-periods whose S or N total fails completeness, for the console: one
+    heading with their count, then at most `shown` (default :data:`FAILING_SHOWN`) of
+    them with the first criterion failed, its share and minimum (``mere 2023: S N:
+    gauge record below minimum (49.7 % of the period; minimum 90 %)``), and "and N more,
+    see summary.csv".  A site-period counts once when any receptor's S or N total fails
+    (present components failing a criterion: budget.csv's ``passes`` false, status not
+    ``missing``); the words are those of its first failing total, the elements named
+    that fail for the same words.  Empty when every total passes."""
+    shown = FAILING_SHOWN if shown is None else shown
+    if "passes" not in table or "completeness_failure" not in table:
+        return []
+    t = table[(table["period"].astype(str) != "span") & (table["species"] == "all")
+              & (table["pathway"] == "total")]
+    passes = t["passes"].astype(str).str.lower().isin(("true", "1"))
+    why = t["completeness_failure"].fillna("").astype(str)
+    t = t[~passes & (t["status"].astype(str) != "missing") & (why != "")]
+    if t.empty:
+        return []
+    t = t.assign(_period=t["period"].astype(str),
+                 _why=t["completeness_failure"].astype(str).str.split(": ", n=1).str[-1])
+    groups = list(t.groupby(["site", "_period"], sort=False))
+    years = all(len(p) == 4 and p.isdigit() for (_, p), _ in groups)
+    unit = "site-year" if years else "site-period"
+    n = len(groups)
+    lines = [f"{n} {unit}{'s' if n > 1 else ''} fail{'' if n > 1 else 's'} completeness "
+             f"({'their' if n > 1 else 'its'} S or N totals are no complete figure for "
+             "the period; summary.csv: "
+             "S_total_passes, N_total_passes and their _completeness_failure):"]
+    for (site, period), g in groups[:shown]:
+        first = g["_why"].iloc[0]
+        els = [e for e in ("S", "N") if (g.loc[g["element"] == e, "_why"] == first).any()]
+        lines.append(f"  {site} {period}: {' '.join(els)}: {first}")
+    if n > shown:
+        lines.append(f"  and {n - shown} more, see summary.csv")
     return lines

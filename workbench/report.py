@@ -104,6 +104,8 @@ def _headed(text: str, columns, labels=None) -> str:
 
 
 _MARK = {"complete": "", "flagged": " f", "partial": " p", "filled": " ~", "missing": ""}
+#: The mark of a total that fails completeness (``passes`` false).
+_FAILS_MARK = " x"
 
 
 def _lacks(row) -> bool:
@@ -112,12 +114,24 @@ def _lacks(row) -> bool:
     return isinstance(m, str) and m.strip() != ""
 
 
+def _fails(row) -> bool:
+    """The row's total fails completeness (budget.csv's ``passes`` false, not missing):
+    a flagged total that is no complete figure for its period, apart from one flagged
+    only to be read with care."""
+    p = row.get("passes")
+    return (p is not None and not pd.isna(p) and str(p).lower() not in ("true", "1")
+            and row.get("status") != "missing")
+
+
 def _pivot_html(per: pd.DataFrame) -> str:
-    """Rows site/receptor/element, one column per period, value with a status mark."""
+    """Rows site/receptor/element, one column per period, value with a status mark; a
+    total that fails completeness is marked ``x`` (not ``f``, which is left to a
+    passing total flagged to be read with care)."""
     if per.empty:
         return "<p>No periods.</p>"
     cell = per.apply(lambda r: "–" if not np.isfinite(r["flux_kg_ha_yr"]) else
-                     f"{plain(r['flux_kg_ha_yr'])}{_MARK.get(r['status'], '?')}"
+                     f"{plain(r['flux_kg_ha_yr'])}"
+                     + (_FAILS_MARK if _fails(r) else _MARK.get(r['status'], '?'))
                      + (" p" if r["status"] != "partial" and _lacks(r) else ""), axis=1)
     wide = per.assign(cell=cell).pivot_table(index=["site", "receptor", "element"],
                                              columns="period", values="cell", aggfunc="first")
@@ -428,8 +442,11 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     parts.append(fold(whole, len(span), "every site and receptor") if network else whole)
     parts.extend(_exceedance_html(result, study, network, ex))
     parts.append("<h2>Totals per period [kg/ha/yr of S or N]</h2>")
-    parts.append("<p>Marks: <b>f</b> flagged (fails completeness, or holds something to read with "
-                 "care: the notes below say which), <b>p</b> partial (a "
+    parts.append("<p>Marks: <b>x</b> fails completeness (no complete figure for the "
+                 "period, never in the whole-span mean: the notes below and summary.csv's "
+                 "<code>S_total_completeness_failure</code> say why), <b>f</b> flagged but "
+                 "passing (holds something to read with care: the notes below say what), "
+                 "<b>p</b> partial (a "
                  "component has no data), <b>~</b> filled, <b>–</b> missing. Exact values, "
                  "eq/ha and every component are in budget.csv.</p>")
     per = totals[totals["period"] != "span"]

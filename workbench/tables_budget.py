@@ -90,6 +90,11 @@ def _rows(ds: xr.Dataset, dep_var, status_var, compl_var, comp_dim, element, pat
         if extra in ds and comp_dim in ds[extra].dims:
             frame[extra] = _labels(ds[extra].transpose("site", "receptor", "period",
                                                        comp_dim).values.reshape(-1))
+    for var in ("completeness_failure", "total_completeness_failure"):
+        if var in ds and comp_dim in ds[var].dims:       # the first criterion failed
+            words = ds[var].transpose("site", "receptor", "period", comp_dim).values.reshape(-1)
+            frame["completeness_failure"] = _labels(np.where(pd.isna(words), "", words)
+                                                    .astype(str))
     if comp_dim == "total" and "total_note" in ds:     # a changed surface or collector
         frame["note"] = _labels(ds["total_note"].transpose("site", "receptor", "period",
                                                            "total").values.reshape(-1))

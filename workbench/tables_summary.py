@@ -16,8 +16,10 @@ def summary_table(result) -> pd.DataFrame:
 
     Only the surfaces a site asks for (the ``active`` pairs of the budget); the
     derived quantities (oxidized and reduced N, potential acidity, shares, the dry
-    N bracket), the S and N totals with their status and the components they
-    lack or flag, and the wet chain's precipitation depth [mm], pH of the
+    N bracket), the S and N totals with their status, the components they
+    lack or flag, whether they pass completeness (``<e>_total_passes``) and, where
+    not, the first criterion failed (``<e>_total_completeness_failure``), and the wet
+    chain's precipitation depth [mm], pH of the
     precipitation-weighted mean H+, free acidity deposited [eq ha-1] and the
     precipitation-weighted mean of each ion [umol L-1].
 
@@ -56,6 +58,14 @@ def summary_table(result) -> pd.DataFrame:
                          ("flagged_components", "total_flagged_components")):
             if var in ds:
                 frame[f"{e}_total_{col}"] = ds[var].transpose(*order).values[si, ri, pi, j]
+        # whether the total passes completeness, and the first criterion failed where
+        # not: a 'flagged' status alone is also a passing total with kept flagged samples
+        if "total_passes" in ds:
+            frame[f"{e}_total_passes"] = ds["total_passes"].transpose(*order).values[
+                si, ri, pi, j].astype(bool)
+        if "total_completeness_failure" in ds:
+            why = ds["total_completeness_failure"].transpose(*order).values[si, ri, pi, j]
+            frame[f"{e}_total_completeness_failure"] = np.where(pd.isna(why), "", why)
     if "nh3_deposition_only" in ds:          # which NH3 figure N_total uses, and the other
         order3 = ("site", "receptor", "period")
         net = element_deposition_in(ds["nh3_net"].transpose(*order3).values[si, ri, pi], "N", "kg_ha")
@@ -73,6 +83,10 @@ def summary_table(result) -> pd.DataFrame:
         frame["precipitation_mm"] = wet("precipitation")
         frame["pH_pwm"] = wet("pH_pwm")
         frame["wet_status"] = wet("wet_status")
+        if "wet_passes" in ds:                 # a flagged wet period may pass or fail
+            frame["wet_passes"] = wet("wet_passes").astype(bool)
+            why = wet("wet_completeness_failure")
+            frame["wet_completeness_failure"] = np.where(pd.isna(why), "", why)
         frame["wet_flagged_share"] = wet("wet_flagged_share")
         pwm = ds["pwm"].transpose("site", "period", "wet_ion").values[si, pi]
         for k, ion in enumerate(ds["wet_ion"].values.astype(str)):

@@ -116,8 +116,8 @@ def test_one_function_holds_the_rule_for_both(monkeypatch):
 
     def spy(w, name, w_status, fallback=False):
         calls.append(name)
-        st, low, notes, share, gone = real(w, name, w_status, fallback)
-        return np.where(st == "complete", "changed", st).astype(object), low, notes, share, gone
+        st, *rest = real(w, name, w_status, fallback)     # low, notes, share, gone, words
+        return (np.where(st == "complete", "changed", st).astype(object), *rest)
     monkeypatch.setattr(bs, "wet_mean_status", spy)
     assert ion_status(wet, "nssSO4")[0][0, 1] == "changed"        # site A, its dry week
     w_status = wet["status"].values.astype(object)

@@ -138,6 +138,11 @@ def test_network_totals_carry_status_and_unit(two_sites_2021):
     mere = t.xs("mere", level="site").iloc[0]
     assert mere["N status"] == "partial" and "NO2" in mere["N without data"]
     assert t.xs("ridge", level="site").iloc[0]["N without data"] == "-"
+    # whether each total passes completeness (a flagged one may pass or fail)
+    assert {"S completeness", "N completeness"} <= set(t.columns)
+    assert set(t["S completeness"]) <= {"passes", "-"} or any(
+        str(v).startswith("fails: ") for v in t["S completeness"])
+    assert t.xs("ridge", level="site").iloc[0]["S completeness"] == "passes"
     assert "eq/ha/yr" in " ".join(net.totals("eq/ha/yr").columns)
     box, = [w for w in net.children if "wb-input-rows" in getattr(w, "_dom_classes", ())]
     assert "Input rows:" in box.value and " read" in box.value

@@ -101,7 +101,7 @@ def ion_status(wet, name):
     from ..budgetstatus import wet_mean_status
     status = wet["status"].transpose("site", "period").values.astype(object)
     status = np.where(pd.isna(status), "missing", status).astype(object)
-    status, _, _, share, _ = wet_mean_status(wet, name, status)
+    status, _, _, share, _, _ = wet_mean_status(wet, name, status)
     return status, share
 
 

@@ -399,24 +399,34 @@ class NetworkOverview(SavedText, widgets.VBox):
     def totals(self, unit=None) -> pd.DataFrame:
         """The annual totals as a table to read: one row per site and year, for S and N
         the value [unit, named in the column] beside its status and the components
-        without data, so that a partial or flagged total never reads as a complete one.
+        without data and whether it passes completeness ("fails: " and the first
+        criterion failed, with its share and minimum, where not: a flagged total may
+        pass or fail), so that a partial, flagged or failing total never reads as a
+        complete one.
         Shown with three significant digits (:class:`~workbench.ui.shown_table.
         ShownTable`; it printed six decimals), its values in full precision.
         """
         from .shown_table import ShownTable
         unit = unit or self.unit_w.value
         t = self.table(unit)
+        # a total failing completeness: "fails: <the first criterion failed>"
+        t = t.assign(completeness=np.where(t["passes"] | (t["status"] == "missing"), "passes",
+                                           "fails: " + t["failure"].astype(str)))
+        t["completeness"] = np.where(t["status"] == "missing", "-", t["completeness"])
         wide = t.pivot_table(index=["site", "receptor", "period"], columns="element",
-                             values=["value", "status", "missing"], aggfunc="first",
-                             sort=False)
+                             values=["value", "status", "missing", "completeness"],
+                             aggfunc="first", sort=False)
         cols = {}
         for el in ("S", "N"):
             if ("value", el) in wide:
                 cols[f"{el} total [{unit}]"] = wide[("value", el)]
                 cols[f"{el} status"] = wide[("status", el)]
+                cols[f"{el} completeness"] = wide[("completeness", el)]
                 cols[f"{el} without data"] = wide[("missing", el)].replace(
                     {"": "-", "nan": "-"}).fillna("-")
-        return ShownTable(cols)
+        shown = ShownTable(cols)
+        shown.attrs["whole_text"] = True             # the reason with its minimum, whole
+        return shown
 
     def _draw(self, create=False):
         unit = self.unit_w.value

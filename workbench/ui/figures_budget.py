@@ -106,6 +106,8 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr", width=Non
     t = tot[tot["pathway"] == "total"]
     rows = {(e, p): i for i, (e, p) in enumerate(zip(t["element"], t["period"]))}
     value, status, missing = t["value"].to_numpy(), t["status"].to_numpy(), t["missing"].to_numpy()
+    fails = ~t["passes"].to_numpy(bool) & (status != "missing")
+    failure = t["failure"].to_numpy()
     symbols = []
     for el in ELEMENTS:             # one trace of totals per panel, one legend entry
         ys, text, sym = [], [], []
@@ -114,8 +116,11 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr", width=Non
             v, stt = float(value[i]), str(status[i])
             ys.append(v if np.isfinite(v) else None)
             miss = _missing_text(str(missing[i]), p, unmeasured, masked, masked_p)
+            # a total failing completeness says so (a flagged one may also pass)
+            fail = (f"<br>fails completeness: {failure[i] or 'see the notes'}" if fails[i]
+                    else "")
             text.append(f"{el} total {p}: {v:.3g} {axis_text(unit, element=el)}"
-                        f"<br>status {stt}{miss}")
+                        f"<br>status {stt}{miss}{fail}")
             sym.append(TOTAL_SYMBOL[stt in ("complete", "filled")])
         symbols += sym
         traces.append({

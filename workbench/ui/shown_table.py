@@ -45,7 +45,11 @@ class ShownTable(pd.DataFrame):
         return pd.DataFrame
 
     def _shown(self, method, *args, **kwargs):
-        with pd.option_context("display.float_format", shown_number):
+        # ``attrs["whole_text"]``: text cells written whole (pandas cuts them at 50
+        # characters: "fails: SO4: gauge record below minimum (51.1 %..." lost the minimum)
+        width = None if self.attrs.get("whole_text") else pd.get_option("display.max_colwidth")
+        with pd.option_context("display.float_format", shown_number,
+                               "display.max_colwidth", width):
             return getattr(pd.DataFrame, method)(self, *args, **kwargs)
 
     def __repr__(self) -> str:

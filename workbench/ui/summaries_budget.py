@@ -132,7 +132,9 @@ def total_rates(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -
     -------
     pandas.DataFrame
         ``period, total, element, pathway, value`` [unit], ``status``,
-        ``missing`` (components without data, space-separated).
+        ``missing`` (components without data, space-separated), ``passes`` (the total
+        passes completeness; a ``flagged`` one may, or may fail) and ``failure`` (where
+        it fails: the first criterion failed, with its share and minimum).
     """
     labels = _as_list(periods, ds)
     pick = _picker(ds, site, receptor, labels)
@@ -142,12 +144,20 @@ def total_rates(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -
     fac = pick("annual_factor")[:, None]
     value = np.where(el == "S", to_unit(dep, "S", unit), to_unit(dep, "N", unit)) * fac
     n_p, n_t = dep.shape
+    status = pick("total_status").reshape(-1).astype(str)
+    passes = (pick("total_passes").reshape(-1).astype(bool) if "total_passes" in ds
+              else ~np.isin(status, ("flagged", "missing")))
+    failure = np.full(n_p * n_t, "", dtype=object)
+    if "total_completeness_failure" in ds:
+        failure = pick("total_completeness_failure").reshape(-1)
+        failure = np.where(pd.isna(failure), "", failure).astype(str)
     return pd.DataFrame({
         "period": np.repeat(labels, n_t), "total": np.tile(names, n_p),
         "element": np.tile(el, n_p), "pathway": np.tile([n.split("_")[1] for n in names], n_p),
         "value": value.reshape(-1),
-        "status": pick("total_status").reshape(-1).astype(str),
-        "missing": pick("total_missing_components").reshape(-1).astype(str)})
+        "status": status,
+        "missing": pick("total_missing_components").reshape(-1).astype(str),
+        "passes": passes, "failure": failure})
 
 
 def mean_totals(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -> pd.DataFrame:
@@ -162,7 +172,9 @@ def mean_totals(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -
     -------
     pandas.DataFrame
         Index ``total``; columns ``value`` [unit], ``status``, ``n_periods``,
-        ``missing`` (space-separated component names, ``""`` when none).
+        ``missing`` (space-separated component names, ``""`` when none), ``passes``
+        (every period given passes completeness: a mean over a failing one is no
+        complete figure, whatever its status says).
     """
     t = total_rates(ds, site, receptor, periods, unit)
     order = {"complete": 0, "filled": 1, "partial": 2, "flagged": 3, "missing": 4}
@@ -170,6 +182,7 @@ def mean_totals(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -
     out = pd.DataFrame({"value": g["value"].mean(),
                         "status": g["status"].agg(lambda s: max(s, key=lambda v: order.get(v, 5))),
                         "n_periods": g["value"].size(),
+                        "passes": g["passes"].all(),
                         "missing": g["missing"].agg(
                             lambda m: " ".join(dict.fromkeys(
                                 n for v in m if isinstance(v, str) for n in v.split())))})

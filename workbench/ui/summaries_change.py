@@ -68,6 +68,11 @@ def change_line(before: pd.DataFrame | None, after: pd.DataFrame, unit="kg/ha/yr
                 if name in after.index and "missing" in after else [])
         # a flagged total lacking a component (flagged wins in the status of a sum)
         # names the component, as a partial one does
+        # a total failing completeness says so: 'flagged' alone is also a passing
+        # total to read with care
+        fails = (name in after.index and "passes" in after
+                 and not bool(after.loc[name, "passes"]) and st != "missing")
+        st = "fails completeness" if fails else st
         words = [w for w in (st if st != "complete" else "",
                              f"no {', '.join(miss)}" if miss and st != "missing" else "") if w]
         tail = f" ({', '.join(words)})" if words else ""

@@ -32,7 +32,8 @@ def network_table(year_ds: xr.Dataset, catalogue=None, unit="kg/ha/yr",
         ``site, receptor, period, element, value`` [unit], ``status``, ``missing``,
         ``rankable`` (bool: the year enters the whole-span total that ranks the site:
         it holds every component the used years hold and passes completeness; a
-        ``flagged`` year may, with a caution).
+        ``flagged`` year may, with a caution), ``passes`` and ``failure``
+        (:func:`workbench.ui.summaries.total_rates`).
     """
     rows = []
     for site in year_ds["site"].values.astype(str):
@@ -53,7 +54,8 @@ def network_table(year_ds: xr.Dataset, catalogue=None, unit="kg/ha/yr",
         t["rankable"] = np.array([str(p) in used.get((str(s), str(e)), ()) for s, e, p in
                                   zip(t["site"], t["element"], t["period"])], dtype=bool) \
             & np.isfinite(t["value"].astype(float))
-    return t[["site", "receptor", "period", "element", "value", "status", "missing", "rankable"]]
+    return t[["site", "receptor", "period", "element", "value", "status", "missing", "rankable",
+              "passes", "failure"]]
 
 
 def network_span(results, catalogue=None) -> pd.DataFrame:

@@ -195,15 +195,19 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         (wet & falls_short(vpf, opt.min_valid_precip_fraction),
          _short_label("valid-chemistry precipitation below minimum", vpf,
                       "of the precipitation", opt.min_valid_precip_fraction)),
-        (wet & (n_valid < opt.min_valid_samples), "too few valid samples"),
+        (wet & (n_valid < opt.min_valid_samples),
+         np.char.add(np.char.add("too few valid samples (", n_valid.astype(str)),
+                     f" valid; minimum {opt.min_valid_samples})").astype(object)),
     ]
     reasons = np.full(shape, "", dtype=object)
     reasons = _join(reasons, n_samples == 0, "no samples")
     reasons = _join(reasons, (n_samples > 0) & ~(gauge_hours > 0), "no valid gauge depth")
     gauge_short = fails[0][0]
     failed = np.zeros(shape, bool)
+    first_fail = np.full(shape, "", dtype=object)      # the first criterion failed, in words
     for mask, label in fails:
         reasons = _join(reasons, mask & ~missing, label)
+        first_fail = np.where(mask & ~missing & ~failed, label, first_fail)
         failed |= mask
     failed &= ~missing
     filled = np.zeros(shape, bool)
@@ -335,6 +339,10 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
         "share of the period's precipitation carried by kept flagged samples")
     var("completeness_failed", failed & ~filled & ~missing, "",
         "the period fails a completeness criterion (not only kept flagged samples)")
+    var("completeness_failure", np.where(failed & ~filled & ~missing, first_fail, ""
+                                         ).astype(object), "",
+        "the first completeness criterion the period fails, with its share and minimum "
+        "('' where it passes)")
     var("status", period_status, "", "complete | flagged | filled | missing")
     var("completeness_reasons", reasons, "", "failed completeness criteria ('; '-joined)")
     var("filled", filled, "", "PWM filled with the multi-year seasonal PWM")
