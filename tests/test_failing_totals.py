@@ -177,7 +177,8 @@ def test_notebook_summaries_say_fails_completeness(runs):
     assert "fails completeness" not in change_line(None, mean_totals(ds, "mere", "water",
                                                                       ["2022"]))
     fig = budget_bars(ds, "mere", "water", ["2022", "2023"])
-    hover = [x for x in fig.data[-1].customdata]
+    # one trace of totals per element's panel
+    hover = [x for d in fig.data if d.name == "total" for x in d.customdata]
     assert sum("fails completeness: SO4: gauge record" in h for h in hover) == 1
     assert not any("fails completeness" in h for h in hover if " 2022:" in h)
 
