@@ -194,3 +194,88 @@ def test_network_table_writes_the_reason_whole():
     t.attrs["whole_text"] = True
     assert why in t._repr_html_() and why in repr(t)
     assert "3.00" in t._repr_html_()                       # the numbers as before
+
+
+def test_derived_sums_say_which_fail_and_why(runs):
+    """Oxidized N, reduced N and the potential acidity of summary.csv and budget.nc pass
+    only where every part they sum passes; where not, the first failing part's reason
+    (after the parts failing for it). Before, they had a status (`flagged`) only."""
+    (cut, _), (plain, _) = runs
+    s = pd.read_csv(cut / "summary.csv", dtype={"period": str}, keep_default_na=False)
+    mere = s[(s["site"] == "mere") & (s["period"] == "2023")]
+    share = 100 * _gauge_share_by_hand("mere", 2023)
+    gauge = f"gauge record below minimum ({share:.1f} % of the period; minimum 90 %)"
+    # the parts of each sum in their order (docs/budget.md): the wet ions fail, the dry
+    # parts pass (the air record is whole)
+    for name, parts in (("oxidized_N", "NO3"), ("reduced_N", "NH4"),
+                        ("potential_acidity", "SO4 NO3 NH4")):
+        assert (mere[f"{name}_passes"].astype(str) == "False").all(), name
+        assert set(mere[f"{name}_completeness_failure"]) == {f"{parts}: {gauge}"}
+        assert (mere[f"{name}_status"] == "flagged").all()            # kept as it was
+    # flagged but passing (ridge 2020) and every other row: passes, no reason
+    rest = s[~((s["site"] == "mere") & (s["period"] == "2023"))]
+    ridge = s[(s["site"] == "ridge") & (s["period"] == "2020")]
+    assert (ridge["potential_acidity_status"] == "flagged").all()
+    for name in ("oxidized_N", "reduced_N", "potential_acidity"):
+        assert (rest[f"{name}_passes"].astype(str) == "True").all(), name
+        assert (rest[f"{name}_completeness_failure"] == "").all()
+    p = pd.read_csv(plain / "summary.csv", keep_default_na=False)
+    assert (p["potential_acidity_passes"].astype(str) == "True").all()
+    # budget.nc: the same variables, the same words
+    recs = list(mere["receptor"])                                  # wetland and water
+    with xr.open_dataset(cut / "budget.nc") as ds:
+        at = {"site": "mere", "receptor": recs}
+        assert ds["oxidized_N_passes"].sel(**at, period="2023").values.tolist() == [0, 0]
+        assert ds["oxidized_N_passes"].sel(**at, period="2022").values.tolist() == [1, 1]
+        assert set(ds["reduced_N_completeness_failure"].sel(
+            **at, period="2023").values.astype(str)) == {f"NH4: {gauge}"}
+
+
+def test_derived_status_of_parts_by_hand():
+    """derived_status on a hand-made table of one site-period: a missing part is named
+    missing, not failing; a flagged part that passes (kept flagged samples) keeps the
+    sum passing; the first failing part in the order of the sum gives the words."""
+    from workbench.budget import derived_status
+    rows = {"SO4": ("flagged", True, ""), "SO2": ("complete", True, ""),
+            "pSO4": ("complete", True, ""),
+            "NO3": ("complete", True, ""), "HNO3": ("flagged", False, "air record short"),
+            "pNO3": ("flagged", False, "air record short"), "NO2": ("missing", False, ""),
+            "NH4": ("flagged", False, "gauge record short"), "NH3": ("complete", True, ""),
+            "pNH4": ("complete", True, "")}
+    t = pd.DataFrame([{"site": "a", "receptor": "grass", "period": "2023", "species": sp,
+                       "status": st, "passes": ok, "completeness_failure": why}
+                      for sp, (st, ok, why) in rows.items()])
+    d = derived_status(t).iloc[0]
+    assert d["oxidized_N_status"] == "flagged"
+    assert d["oxidized_N_missing_components"] == "NO2"
+    assert not d["oxidized_N_passes"]
+    assert d["oxidized_N_completeness_failure"] == "HNO3 pNO3: air record short"
+    assert not d["reduced_N_passes"]
+    assert d["reduced_N_completeness_failure"] == "NH4: gauge record short"
+    # S parts pass (SO4 flagged but passing): the first failing part is HNO3
+    assert d["potential_acidity_completeness_failure"] == "HNO3 pNO3: air record short"
+    t2 = t.assign(passes=t["status"] != "missing", completeness_failure="")
+    d2 = derived_status(t2).iloc[0]
+    assert d2["oxidized_N_passes"] and d2["potential_acidity_passes"]
+    assert d2["oxidized_N_completeness_failure"] == ""
+    assert d2["oxidized_N_status"] == "flagged"                     # the status as before
+
+
+def test_network_lines_set_failing_totals_apart():
+    """For a network above the size threshold, the closing lines of `workbench run` named
+    a total failing completeness "flagged (read with care ...)", beside the lines saying
+    it fails completeness; it now has a line of its own."""
+    from workbench.cli import site_status_lines
+    t = pd.DataFrame({"site": ["s1", "s2", "s3"], "period": "2023", "species": "all",
+                      "pathway": "total", "element": "S", "status": "flagged",
+                      "passes": [True, False, False], "missing_components": ""})
+    lines = site_status_lines(t, min_sites=1)
+    care = [x for x in lines if "read with care" in x]
+    failing = [x for x in lines if "failing completeness" in x]
+    assert care == ["  S flagged, passing completeness (read with care: report.html says "
+                    "why): 1 site: s1"]
+    assert len(failing) == 1 and failing[0].endswith(": 2 sites: s2, s3")
+    assert failing[0].startswith("  S failing completeness")
+    # a table without `passes` (an older budget.csv) reads as before
+    old = site_status_lines(t.drop(columns="passes"), min_sites=1)
+    assert any("flagged" in x and "s1, s2, s3" in x for x in old)

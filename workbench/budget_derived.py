@@ -1,7 +1,7 @@
 """Quantities derived from the budget's components: oxidized and reduced N, the
 potential acidity, dry and wet shares, the bracket of dry N, the air's total nitrate
-and ammonia + ammonium (:func:`derived`) and the status of the derived sums of
-summary.csv (:func:`derived_status`); re-exported by :mod:`workbench.budget`.
+and ammonia + ammonium (:func:`derived`) and the status and completeness of the
+derived sums of summary.csv and budget.nc (:func:`derived_status`); re-exported by :mod:`workbench.budget`.
 """
 from __future__ import annotations
 
@@ -10,7 +10,7 @@ import pandas as pd
 import xarray as xr
 
 from .budget_components import DERIVED_PARTS, OXIDIZED_N, PAIRS, REDUCED_N
-from .budget_totals import combine_status, sum_present
+from .budget_totals import _first_failure, combine_status, sum_present
 from .species import element_molar_mass
 from .units import UG_PER_KG, deposition_in, element_deposition_in
 
@@ -43,26 +43,50 @@ def potential_acidity(s_total, oxidized, reduced):
 
 
 def derived_status(table: pd.DataFrame) -> pd.DataFrame:
-    """Status and missing components of the derived sums (oxidized N, reduced N,
-    potential acidity) per (site, receptor, period), by the rule of every sum
+    """Status, missing components and completeness of the derived sums (oxidized N,
+    reduced N, potential acidity) per (site, receptor, period), by the rule of every sum
     (:func:`workbench.budget.combine_status`): without them an oxidized N that lacks an
     unmeasured NO2 read as complete in summary.csv.
+
+    A derived sum passes completeness only if every part it sums (every present
+    component) passes, as the totals do (:func:`workbench.budget_totals._totals`);
+    where it does not, its failure is the first failing part's reason, after the parts
+    failing for the same words (``NO3: gauge record below minimum (51.1 % of the
+    period; minimum 90 %)``), the parts in the order of :data:`DERIVED_PARTS`.
 
     Returns
     -------
     DataFrame
-        Columns site, receptor, period, ``<sum>_status`` and ``<sum>_missing_components``.
+        Columns site, receptor, period, ``<sum>_status``, ``<sum>_missing_components``,
+        ``<sum>_passes`` (bool) and ``<sum>_completeness_failure`` ('' where it passes).
     """
     comp = table[(table["species"] != "all") & (table["period"] != "span")]
     key = ["site", "receptor", "period"]
     st = comp.pivot_table(index=key, columns="species", values="status", aggfunc="first",
                           observed=True)
+    # a part fails where budget.csv's `passes` is false and it is present (as the
+    # totals); a table without `passes` reads every flagged part as failing
+    ok = (comp["passes"].astype(str).str.lower().isin(("true", "1")) if "passes" in comp
+          else ~comp["status"].astype(str).isin(("flagged", "missing")))
+    why = (comp["completeness_failure"].fillna("").astype(str) if "completeness_failure"
+           in comp else pd.Series("", index=comp.index))
+    parts_of = comp[key + ["species"]].assign(_ok=ok.to_numpy(), _why=why.to_numpy())
+    okw = parts_of.pivot_table(index=key, columns="species", values="_ok", aggfunc="first",
+                               observed=True).reindex(index=st.index)
+    whyw = parts_of.pivot_table(index=key, columns="species", values="_why",
+                                aggfunc="first", observed=True).reindex(index=st.index)
     out = pd.DataFrame(index=st.index)
     for name, parts in DERIVED_PARTS.items():
         sub = st.reindex(columns=list(parts)).fillna("missing").to_numpy(object)
         out[f"{name}_status"], _ = combine_status(sub)
         out[f"{name}_missing_components"] = [
             " ".join(p for p, v in zip(parts, row) if v == "missing") for row in sub]
+        present = sub != "missing"
+        fails = present & ~okw.reindex(columns=list(parts)).fillna(True).to_numpy(bool)
+        words = whyw.reindex(columns=list(parts)).fillna("").to_numpy(object)
+        out[f"{name}_passes"] = ~fails.any(-1) & present.any(-1)
+        out[f"{name}_completeness_failure"] = _first_failure(fails, words,
+                                                             np.asarray(parts, dtype=object))
     return out.reset_index()
 
 

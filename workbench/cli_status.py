@@ -66,7 +66,9 @@ def site_status_lines(table, min_sites=None) -> list[str]:
     status and set of missing components, naming the sites (with the periods, where not
     every period).  Empty for a run of at most `min_sites` sites (default
     :data:`workbench.report_network.NETWORK_SITES`), whose few sites the report shows
-    one by one.
+    one by one.  The flagged totals that fail completeness (budget.csv's ``passes``
+    false) get lines of their own, "failing completeness", apart from the flagged ones
+    that pass and are to be read with care; :func:`failing_lines` says why each fails.
 
     A site counts when any of its receptors has that status in that period."""
     from .report_network import NETWORK_SITES, year_span
@@ -78,14 +80,22 @@ def site_status_lines(table, min_sites=None) -> list[str]:
     every = set(t["period"].astype(str))
     miss = t["missing_components"].fillna("").astype(str) if "missing_components" in t \
         else ""
-    t = t.assign(_miss=miss, _period=t["period"].astype(str), _status=t["status"].astype(str))
-    words = {"partial": "partial", "flagged": "flagged (read with care: report.html says why)",
+    status = t["status"].astype(str)
+    if "passes" in t:      # a total failing completeness is no total to read with care
+        fails = (~t["passes"].astype(str).str.lower().isin(("true", "1"))
+                 & (status != "missing"))
+        status = status.where(~fails, "failing")
+    t = t.assign(_miss=miss, _period=t["period"].astype(str), _status=status)
+    words = {"partial": "partial",
+             "flagged": "flagged, passing completeness (read with care: report.html says why)",
+             "failing": "failing completeness (no complete figure for the period: "
+                        "the lines below say why)",
              "missing": "missing (no data)"}
     lines = []
     for el in ("S", "N"):
         for status, word in words.items():
             g = t[(t["element"] == el) & (t["_status"] == status)]
-            if status != "partial":            # missing: every component; flagged: kept
+            if status != "partial":      # missing: every component; flagged, failing: kept
                 g = g.assign(_miss="")
             for m, gm in g.groupby("_miss", sort=True):
                 sites = []

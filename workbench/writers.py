@@ -157,11 +157,16 @@ def budget_dataset(result) -> xr.Dataset:
     st = derived_status(chosen_scheme(result)[0].table).set_index(["site", "receptor", "period"])
     for col in st.columns:
         v = st[col].to_xarray().reindex(site=ds["site"], receptor=ds["receptor"],
-                                        period=ds["period"]).fillna("")
-        ds[col] = v.astype(object)
-        ds[col].attrs["long_name"] = (f"{col.split('_status')[0]}: status (docs/budget.md)"
-                                      if col.endswith("_status") else
-                                      f"{col.split('_missing')[0]}: components without data")
+                                        period=ds["period"])
+        passes = col.endswith("_passes")       # a pair no site asks for: false
+        ds[col] = v.fillna(False).astype(bool) if passes else v.fillna("").astype(object)
+        ds[col].attrs["long_name"] = (
+            f"{col.split('_status')[0]}: status (docs/budget.md)" if col.endswith("_status")
+            else f"{col.split('_passes')[0]}: every part passes completeness" if passes
+            else f"{col.split('_completeness')[0]}: the first completeness criterion a part "
+                 "fails, with its share and minimum, after the parts failing for it"
+            if col.endswith("_completeness_failure")
+            else f"{col.split('_missing')[0]}: components without data")
     ds["period_start"].attrs["long_name"] = "start of the period (UTC)"
     ds["period_end"].attrs["long_name"] = "end of the period, exclusive (UTC)"
     return ds
