@@ -175,3 +175,26 @@ def test_scenario_override_does_not_repeat_or_misplace_the_hint(tmp_path):
                  encoding="utf-8")
     assert load_scenario(s).notes == []
     assert len(read_sites(p).notes) == 1
+
+
+def test_a_table_typed_in_kg_gets_one_note_per_value_and_no_false_function_note(tmp_path):
+    """A table typed in kg/ha/yr without its unit line: CLmaxS 15.2 kg S, CLminN 5 and
+    CLmaxN 19.9 kg N (948.2, 357.1 and 1420.7 eq by 62.4 and 71.4 eq/kg, periodictable's
+    molar masses; a function the simple mass balance can give: 1420.7 - 357.1 >= 948.2).
+    Each value had its located unit note, and a fifth note compared the function as
+    written, kg S against kg N ("cl_max_n - cl_min_n = 14.9 is below cl_max_s = 15.2 ...
+    values swapped"): a false alarm pointing away from the slip.  A function with a value
+    in the plausible range keeps its own note (the g S case of test_ecosystem_trial)."""
+    cat = _read(tmp_path, "cl_max_s = 15.2\ncl_min_n = 5.0\ncl_max_n = 19.9\n")
+    assert len(cat.notes) == 3, cat.notes
+    for line, key in zip(range(FIRST, FIRST + 3), ("cl_max_s", "cl_min_n", "cl_max_n")):
+        (note,) = [n for n in cat.notes if f"line {line}, column '{key}'" in n]
+        assert "a unit slip?" in note
+    assert not any("doubtful critical load function" in n for n in cat.notes)
+    assert 15.2 * eq_per_kg("S") <= 19.9 * eq_per_kg("N") - 5.0 * eq_per_kg("N")
+    # declared in kg, the same numbers read without any note
+    assert _read(tmp_path, 'unit = "kg/ha/yr"\ncl_max_s = 15.2\ncl_min_n = 5.0\n'
+                 "cl_max_n = 19.9\n").notes == []
+    # a forgotten key is still said beside the unit notes
+    notes = _read(tmp_path, "cl_max_s = 15.2\ncl_max_n = 19.9\n").notes
+    assert any("without cl_min_n" in n for n in notes), notes
