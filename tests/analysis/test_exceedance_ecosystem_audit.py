@@ -219,3 +219,58 @@ def test_a_run_year_failing_completeness_is_said_in_the_csv_and_the_explorer(tmp
     words = status_note(result.years, "quill", "grass", "2021")
     assert f"S total fails completeness ({s_why})" in words
     assert "no whole figure for the year" in words
+
+
+# ------------------------------------------------------------- under uncertainty
+def test_probability_and_quantiles_against_shapely_over_every_region():
+    """400 invented draws of (N, S) spread over every region of two receptors'
+    functions, the table's rows in another order than the draws': the share of draws
+    above the function (the closed-form inequality of the definition) and the 5/50/95 %
+    quantiles of the exceedance of each draw by shapely (numpy's linear quantiles)."""
+    import xarray as xr
+
+    from workbench.analysis.exceedance import exceedance_probability
+    rng = np.random.default_rng(20261205)
+    d = 400
+    clf = {"grass": (950.0, 357.0, 1420.0, 714.0), "moorland": (500.0, 400.0, 400.0, 500.0)}
+    recs = ["grass", "moorland"]
+    s = rng.uniform(0.0, 2000.0, (d, 1, 2, 1))
+    n = rng.uniform(0.0, 2500.0, (d, 1, 2, 1))
+    dims = ("draw", "site", "receptor", "period")
+    draws = xr.Dataset({"s_dep_eq_ha_yr": (dims, s), "n_dep_eq_ha_yr": (dims, n)},
+                       coords={"site": ["quill"], "receptor": recs, "period": ["2021"]})
+    table = pd.DataFrame([{"site": "quill", "receptor": r, "period": "2021",
+                           **dict(zip(["cl_max_s_eq_ha_yr", "cl_min_n_eq_ha_yr",
+                                       "cl_max_n_eq_ha_yr", "cl_nut_n_eq_ha_yr"], clf[r]))}
+                          for r in reversed(recs)])
+    got = exceedance_probability(table, draws)
+    for i, r in enumerate(reversed(recs)):
+        cs, c0, c1, cn = clf[r]
+        k = recs.index(r)
+        si, ni = s[:, 0, k, 0], n[:, 0, k, 0]
+        ref = np.array([_reference(a, b, cs, c0, c1)[0] for a, b in zip(si, ni)])
+        above = ~np.where(ni <= c0, si <= cs,
+                          np.where(ni <= c1, si * (c1 - c0) <= cs * (c1 - ni), False))
+        assert 0.05 < above.mean() < 0.99                  # both sides are drawn
+        row = got.iloc[i]
+        assert row["p_exceed_acidity"] == pytest.approx(above.mean(), abs=1e-12)
+        assert row["p_exceed_nutrient_n"] == pytest.approx((ni > cn).mean(), abs=1e-12)
+        for q, suffix in ((0.05, "_p05"), (0.5, "_p50"), (0.95, "_p95")):
+            assert row["ex_acidity_eq_ha_yr" + suffix] == pytest.approx(
+                np.quantile(ref, q), abs=1e-6)
+            assert row["ex_nutrient_n_eq_ha_yr" + suffix] == pytest.approx(
+                np.quantile(np.maximum(ni - cn, 0.0), q), abs=1e-9)
+
+
+def test_budget_kg_and_eq_columns_agree_with_periodictable(analysis_run):
+    """budget.csv's kg and eq columns of every S and N row: g per eq = M(S) / 2 and
+    M(N) (periodictable), within its abridged atomic weights (5e-4)."""
+    import periodictable as pt
+    out, _, _ = analysis_run
+    b = pd.read_csv(out / "budget.csv")
+    b = b[np.isfinite(b["flux_eq_ha_yr"]) & (b["flux_eq_ha_yr"].abs() > 1e-6)]
+    for el, g_per_eq in (("S", pt.S.mass / 2.0), ("N", pt.N.mass)):
+        e = b[b["element"] == el]
+        assert len(e) > 10
+        np.testing.assert_allclose(1000.0 * e["flux_kg_ha_yr"] / e["flux_eq_ha_yr"],
+                                   g_per_eq, rtol=5e-4)
