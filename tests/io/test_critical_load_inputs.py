@@ -198,3 +198,21 @@ def test_a_table_typed_in_kg_gets_one_note_per_value_and_no_false_function_note(
     # a forgotten key is still said beside the unit notes
     notes = _read(tmp_path, "cl_max_s = 15.2\ncl_max_n = 19.9\n").notes
     assert any("without cl_min_n" in n for n in notes), notes
+
+
+def test_swapped_cl_min_n_and_cl_max_n_are_one_located_error_naming_the_swap(tmp_path):
+    """CLminN and CLmaxN typed the other way round (1500 and 300): one located error at
+    cl_max_n's line with both readings; the message said only what is expected, not
+    that the two read the other way round make a function.  A CLmaxN below a CLminN
+    of another table is no swap and keeps the plain message."""
+    with pytest.raises(InputError) as exc:
+        _read(tmp_path, GOOD.replace("cl_min_n = 300.0", "cl_min_n = 1500.0")
+              .replace("cl_max_n = 1500.0", "cl_max_n = 300.0"))
+    msg = str(exc.value)
+    assert msg.count("sites.toml") == 1 and f"line {FIRST + 2}, column 'cl_max_n'" in msg
+    assert "cl_max_n below cl_min_n: got '300.0'" in msg
+    assert "swapped? cl_min_n = 300 and cl_max_n = 1500 would be a function" in msg
+    with pytest.raises(InputError) as exc:
+        _read(tmp_path, GOOD + "\n[site.critical_loads.moorland]\ncl_max_n = 200.0\n")
+    assert "swapped?" not in str(exc.value)
+    assert "expected cl_max_n >= cl_min_n = 300 eq/ha/yr" in str(exc.value)

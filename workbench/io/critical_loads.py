@@ -231,6 +231,9 @@ def check_critical_loads(t, surfaces, err, table_err, notes, site_id):
             if units[at] != "eq/ha/yr":        # the value as written is in another unit
                 expected += (f" (cl_max_n = {given[at]['cl_max_n']:g} {units[at]} is "
                              f"{merged['cl_max_n']:.4g} eq/ha/yr)")
+            if "cl_min_n" in given[at]:        # both in one table: a swap is likely
+                expected += (f"; swapped? cl_min_n = {given[at]['cl_max_n']:g} and cl_max_n "
+                             f"= {given[at]['cl_min_n']:g} would be a function")
             raise locate(at)(problem, "cl_max_n", given[at]["cl_max_n"], expected)
         own = per_receptor[r] if r else cl
         for key, v in own.items():
