@@ -49,7 +49,7 @@ def test_receptor_without_loads_has_rows_saying_so(run):
     assert list(ex.columns[:len(EXCEEDANCE_COLUMNS)]) == list(EXCEEDANCE_COLUMNS)
     assert list(ex.columns[len(EXCEEDANCE_COLUMNS):]) == [
         "cl_max_s_eq_ha_yr", "cl_min_n_eq_ha_yr", "cl_max_n_eq_ha_yr", "cl_nut_n_eq_ha_yr",
-        "s_reduction_eq_ha_yr", "n_reduction_eq_ha_yr", "note"]
+        "s_reduction_eq_ha_yr", "n_reduction_eq_ha_yr", "passes", "note"]
 
 
 def test_report_names_the_receptor_without_loads(run):

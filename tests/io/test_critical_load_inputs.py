@@ -175,3 +175,44 @@ def test_scenario_override_does_not_repeat_or_misplace_the_hint(tmp_path):
                  encoding="utf-8")
     assert load_scenario(s).notes == []
     assert len(read_sites(p).notes) == 1
+
+
+def test_a_table_typed_in_kg_gets_one_note_per_value_and_no_false_function_note(tmp_path):
+    """A table typed in kg/ha/yr without its unit line: CLmaxS 15.2 kg S, CLminN 5 and
+    CLmaxN 19.9 kg N (948.2, 357.1 and 1420.7 eq by 62.4 and 71.4 eq/kg, periodictable's
+    molar masses; a function the simple mass balance can give: 1420.7 - 357.1 >= 948.2).
+    Each value had its located unit note, and a fifth note compared the function as
+    written, kg S against kg N ("cl_max_n - cl_min_n = 14.9 is below cl_max_s = 15.2 ...
+    values swapped"): a false alarm pointing away from the slip.  A function with a value
+    in the plausible range keeps its own note (the g S case of test_ecosystem_trial)."""
+    cat = _read(tmp_path, "cl_max_s = 15.2\ncl_min_n = 5.0\ncl_max_n = 19.9\n")
+    assert len(cat.notes) == 3, cat.notes
+    for line, key in zip(range(FIRST, FIRST + 3), ("cl_max_s", "cl_min_n", "cl_max_n")):
+        (note,) = [n for n in cat.notes if f"line {line}, column '{key}'" in n]
+        assert "a unit slip?" in note
+    assert not any("doubtful critical load function" in n for n in cat.notes)
+    assert 15.2 * eq_per_kg("S") <= 19.9 * eq_per_kg("N") - 5.0 * eq_per_kg("N")
+    # declared in kg, the same numbers read without any note
+    assert _read(tmp_path, 'unit = "kg/ha/yr"\ncl_max_s = 15.2\ncl_min_n = 5.0\n'
+                 "cl_max_n = 19.9\n").notes == []
+    # a forgotten key is still said beside the unit notes
+    notes = _read(tmp_path, "cl_max_s = 15.2\ncl_max_n = 19.9\n").notes
+    assert any("without cl_min_n" in n for n in notes), notes
+
+
+def test_swapped_cl_min_n_and_cl_max_n_are_one_located_error_naming_the_swap(tmp_path):
+    """CLminN and CLmaxN typed the other way round (1500 and 300): one located error at
+    cl_max_n's line with both readings; the message said only what is expected, not
+    that the two read the other way round make a function.  A CLmaxN below a CLminN
+    of another table is no swap and keeps the plain message."""
+    with pytest.raises(InputError) as exc:
+        _read(tmp_path, GOOD.replace("cl_min_n = 300.0", "cl_min_n = 1500.0")
+              .replace("cl_max_n = 1500.0", "cl_max_n = 300.0"))
+    msg = str(exc.value)
+    assert msg.count("sites.toml") == 1 and f"line {FIRST + 2}, column 'cl_max_n'" in msg
+    assert "cl_max_n below cl_min_n: got '300.0'" in msg
+    assert "swapped? cl_min_n = 300 and cl_max_n = 1500 would be a function" in msg
+    with pytest.raises(InputError) as exc:
+        _read(tmp_path, GOOD + "\n[site.critical_loads.moorland]\ncl_max_n = 200.0\n")
+    assert "swapped?" not in str(exc.value)
+    assert "expected cl_max_n >= cl_min_n = 300 eq/ha/yr" in str(exc.value)

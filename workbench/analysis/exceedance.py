@@ -58,7 +58,10 @@ def annual_totals(result) -> pd.DataFrame:
     -------
     DataFrame
         site, receptor, period, ``s_dep_eq_ha_yr``, ``n_dep_eq_ha_yr`` [eq ha-1 yr-1],
-        ``s_status``, ``n_status``, ``s_missing``, ``n_missing`` and ``s_basis``
+        ``s_status``, ``n_status``, ``s_missing``, ``n_missing``, ``s_fails``,
+        ``n_fails`` (the total fails completeness: budget.csv's ``passes`` false, not
+        missing), ``s_failure``, ``n_failure`` (budget.csv's ``completeness_failure``:
+        the first criterion failed, with its share and minimum) and ``s_basis``
         (budget.csv's ``sulfate_basis`` of the wet S sum: ``total`` where the wet S
         holds total SO4, sea salt included, e.g. a period whose non-sea-salt mean fell
         back for want of the sea-salt tracer; ``""`` where not known).
@@ -75,9 +78,18 @@ def annual_totals(result) -> pd.DataFrame:
     for el in ("S", "N"):
         e = tot[tot["element"] == el].set_index(keys)
         miss = e["missing_components"] if "missing_components" in e else pd.Series("", e.index)
+        # a total failing completeness (passes false; a span row, the mean of passing
+        # years, has no passes of its own) was "flagged" here as one kept only to be
+        # read with care, and its exceedance looked like a whole year's
+        fails = (e["passes"].map(lambda v: str(v).lower() in ("false", "0"))
+                 if "passes" in e else pd.Series(False, e.index)) & e["status"].ne("missing")
+        why = (e["completeness_failure"].fillna("").astype(str)
+               if "completeness_failure" in e else pd.Series("", e.index))
         parts.append(pd.DataFrame({f"{el.lower()}_dep_eq_ha_yr": e["flux_eq_ha_yr"],
                                    f"{el.lower()}_status": e["status"],
-                                   f"{el.lower()}_missing": miss.fillna("").astype(str)}))
+                                   f"{el.lower()}_missing": miss.fillna("").astype(str),
+                                   f"{el.lower()}_fails": fails.astype(bool),
+                                   f"{el.lower()}_failure": why.where(fails, "")}))
     out = pd.concat(parts, axis=1).reset_index()
     # which sulfate the S total holds (the wet S sum's label; the dry pSO4 follows the
     # same basis): a row on the nss basis whose wet SO4 fell back to total SO4 had only
@@ -98,8 +110,28 @@ def _join(*notes) -> np.ndarray:
     return np.array(["; ".join(v for v in row if v) for row in zip(*cols)], dtype=object)
 
 
+#: The note of an exceedance resting on a total that fails completeness (after the
+#: totals named "S total fails completeness (<the first criterion failed>)").
+FAILS_NOTE = ("a total failing completeness is no whole figure for its period, and neither "
+              "is the exceedance (a 0 may miss one); the span mean leaves the year out")
+
+
+def _fails(frame: pd.DataFrame, el: str) -> np.ndarray:
+    """The `el` (``s`` or ``n``) total of each row fails completeness (False where the
+    frame does not say)."""
+    col = f"{el}_fails"
+    return (frame[col].fillna(False).astype(bool).to_numpy() if col in frame
+            else np.zeros(len(frame), bool))
+
+
 def _status(frame: pd.DataFrame):
-    """Status and note of an exceedance from the statuses of the S and N totals."""
+    """Status, note and ``passes`` of an exceedance from the S and N totals.
+
+    A total failing completeness keeps the status ``flagged`` (budget.csv's word) and
+    is named in the note with the first criterion failed, then :data:`FAILS_NOTE`; it was
+    "S total flagged", the words of a total only to be read with care.  ``passes``:
+    both totals are there and pass completeness (budget.csv's ``passes``).
+    """
     st = frame[["s_status", "n_status"]].astype(str)
     status = np.select([st.eq("missing").any(axis=1), st.isin(["partial", "flagged"]).any(axis=1),
                         st.eq("filled").any(axis=1)], ["missing", "flagged", "filled"], "complete")
@@ -107,10 +139,18 @@ def _status(frame: pd.DataFrame):
     for el in ("s", "n"):
         s = frame[f"{el}_status"].astype(str).reset_index(drop=True)
         m = frame[f"{el}_missing"].astype(str).reset_index(drop=True)
-        text = f"{el.upper()} total " + s + np.where(m != "", " (without " + m + ")", "")
+        fails = _fails(frame, el)
+        why = (frame[f"{el}_failure"].fillna("").astype(str).reset_index(drop=True)
+               if f"{el}_failure" in frame else pd.Series("", s.index))
+        why = why.where(why != "", "a criterion of budget.csv")
+        said = pd.Series(np.where(fails, "fails completeness (" + why + ")", s), dtype=object)
+        text = f"{el.upper()} total " + said + np.where(m != "", " (without " + m + ")", "")
         # a filled total is named too: the row's status "filled" had an empty note
-        notes.append(text.where(s.isin(["partial", "flagged", "missing", "filled"]), ""))
-    return status, _join(*notes)
+        notes.append(text.where(s.isin(["partial", "flagged", "missing", "filled"]) | fails, ""))
+    failing = _fails(frame, "s") | _fails(frame, "n")
+    notes.append(np.where(failing, FAILS_NOTE, ""))
+    passes = ~st.eq("missing").any(axis=1).to_numpy() & ~failing
+    return status, _join(*notes), passes
 
 
 def exceedance_table(result, catalogue) -> pd.DataFrame:
@@ -240,7 +280,10 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
     Returns
     -------
     DataFrame
-        :data:`EXCEEDANCE_COLUMNS`, then the loads, the S and N reductions and a note.
+        :data:`EXCEEDANCE_COLUMNS`, then the loads, the S and N reductions, ``passes``
+        (both totals there and passing completeness, as budget.csv's ``passes``; a
+        total failing it is named in the note with the criterion, :data:`FAILS_NOTE`)
+        and a note.
         A pair of site and receptor without any critical load has its rows too, with
         its deposition, no exceedance (empty, region -1), status ``missing`` and the
         note :data:`NO_CRITICAL_LOADS` (it had no row, and a reader of the file found
@@ -284,7 +327,7 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
     t["ex_nutrient_n_eq_ha_yr"] = np.where(nut_undetermined, np.nan, nut)
     t["s_reduction_eq_ha_yr"] = np.where(acid_undetermined, np.nan, ex.s_reduction)
     t["n_reduction_eq_ha_yr"] = np.where(acid_undetermined, np.nan, ex.n_reduction)
-    t["status"], note = _status(t)
+    t["status"], note, t["passes"] = _status(t)
     t["status"] = np.where(none, "missing", t["status"])
     fell_back = (t["s_basis"].fillna("").astype(str).eq("total").to_numpy()
                  if "s_basis" in t else np.zeros(len(t), bool))
@@ -314,7 +357,7 @@ def exceedance_from_totals(totals: pd.DataFrame, catalogue, sulfate_basis="nss")
     t["note"] = note
     t = t.rename(columns={k: f"{k}_eq_ha_yr" for k in ACIDITY_KEYS + (NUTRIENT_KEY,)})
     extra = [f"{k}_eq_ha_yr" for k in ACIDITY_KEYS + (NUTRIENT_KEY,)] + [
-        "s_reduction_eq_ha_yr", "n_reduction_eq_ha_yr", "note"]
+        "s_reduction_eq_ha_yr", "n_reduction_eq_ha_yr", "passes", "note"]
     t = t[list(EXCEEDANCE_COLUMNS) + extra].reset_index(drop=True)
     t.attrs["lower_bound"] = lower
     t.attrs["lower_bound_n"] = lower_n

@@ -220,6 +220,7 @@ def check_critical_loads(t, surfaces, err, table_err, notes, site_id):
             return lambda problem, key, value=None, expected=None: table_err(
                 problem, r, key, value, expected)
         return err
+    doubtful = {}        # table -> the keys noted as a possible unit slip
     for r in [None] + list(per_receptor):
         merged = {**cl, **(per_receptor[r] if r else {})}
         where = f"[site.critical_loads.{r}]" if r else "[site.critical_loads]"
@@ -230,15 +231,29 @@ def check_critical_loads(t, surfaces, err, table_err, notes, site_id):
             if units[at] != "eq/ha/yr":        # the value as written is in another unit
                 expected += (f" (cl_max_n = {given[at]['cl_max_n']:g} {units[at]} is "
                              f"{merged['cl_max_n']:.4g} eq/ha/yr)")
+            if "cl_min_n" in given[at]:        # both in one table: a swap is likely
+                expected += (f"; swapped? cl_min_n = {given[at]['cl_max_n']:g} and cl_max_n "
+                             f"= {given[at]['cl_min_n']:g} would be a function")
             raise locate(at)(problem, "cl_max_n", given[at]["cl_max_n"], expected)
         own = per_receptor[r] if r else cl
         for key, v in own.items():
             doubt = _doubtful_value(key, v, where if units[r] == "eq/ha/yr" else
                                     f"{where} ({given[r][key]:g} {units[r]})")
             if doubt:
+                doubtful.setdefault(r, set()).add(key)
                 notes.append(f"site {site_id!r}: " + str(locate(r)(
                     doubt[0], key, given[r][key], doubt[1])))
+        # a function whose values are noted as unit slips: its own hint compared them as
+        # written (a table typed in kg, CLmaxS 15.2 kg S, CLminN 5 and CLmaxN 19.9 kg N,
+        # 948, 357 and 1421 eq, had a sixth note "values swapped or in different units"
+        # beside the four of its values); the unit notes say what to do
+        slipped = doubtful.get(r, set()) | {k for k in doubtful.get(None, set())
+                                            if r and k not in own}
+        compared = not slipped & set(ACIDITY_KEYS)
         for problem, key, expected in _function_notes(merged):
+            if not compared and key in merged and len(
+                    [k for k in ACIDITY_KEYS if k in merged]) == 3:
+                continue            # (a forgotten key is said all the same)
             if r and not any(k in own for k in ACIDITY_KEYS):
                 continue               # the site's own function, noted once above
             taken = [k for k in ACIDITY_KEYS

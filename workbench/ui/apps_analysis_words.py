@@ -92,14 +92,20 @@ def exceedance_words(value, lower, region="") -> str:
 def status_note(years_ds, site, receptor, period) -> str:
     """A warning when the S or N total of the period is not complete: a partial total
     (a species without data) is a lower bound of the deposition, so an exceedance may be
-    missed; a flagged one is read with care.  Empty text when both are complete."""
+    missed; a flagged one is read with care; one failing completeness is named with the
+    first criterion failed (it read "flagged", as a total passing with kept flagged
+    samples).  Empty text when both are complete."""
     t = total_rates(years_ds, site, receptor, [str(period)])
     t = t[t["pathway"] == "total"]
     out = []
+    failing = False
     for _, r in t.iterrows():
-        if r["status"] in RANKABLE:
+        fails = not bool(r["passes"]) and r["status"] != "missing"
+        if r["status"] in RANKABLE and not fails:
             continue
-        what = f"{r['element']} total {r['status']}"
+        failing |= fails
+        what = f"{r['element']} total " + (f"fails completeness ({r['failure'] or 'budget.csv'})"
+                                           if fails else r["status"])
         if r["missing"].strip():
             what += f" (no {', '.join(r['missing'].split())})"
         out.append(what)
@@ -107,7 +113,9 @@ def status_note(years_ds, site, receptor, period) -> str:
         return ""
     return (f"Read with care: {'; '.join(out)} in {period}. A partial total leaves out "
             "species without data, so the deposition and its exceedance may be higher; "
-            "a flagged one has components flagged (site budget explorer, budget.csv notes).")
+            + ("a total failing completeness is no whole figure for the year, nor is its "
+               "exceedance; " if failing else "")
+            + "a flagged one has components flagged (site budget explorer, budget.csv notes).")
 
 
 def _range_text(row: dict, draws: int, lower=False, has=None, lower_n=None) -> str:
