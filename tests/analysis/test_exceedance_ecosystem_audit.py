@@ -27,7 +27,7 @@ import pytest
 from workbench.analysis.exceedance import (FAILS_NOTE, acidity_exceedance,
                                            exceedance_from_totals)
 
-shapely = pytest.importorskip("shapely")
+# shapely is declared in the test extra (pyproject.toml): imported, not skipped
 from shapely.geometry import LineString, Point  # noqa: E402
 from shapely.ops import nearest_points  # noqa: E402
 
