@@ -194,3 +194,47 @@ def test_netcdf_engines_used_are_runtime_dependencies():
     extras = PYPROJECT["project"]["optional-dependencies"]
     assert all(_norm(e) in _requirement_names(extras[LAZY[e]]) for e in lazy)
     assert {_norm(e) for e in engines - lazy} <= deps
+
+
+def _test_imports():
+    """(file, line, top-level module) of every absolute import and every
+    ``pytest.importorskip("x")`` in tests/ and benchmarks/."""
+    out = []
+    for folder in (ROOT / "tests", ROOT / "benchmarks"):
+        for path in sorted(folder.rglob("*.py")):
+            for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+                if isinstance(node, ast.Import):
+                    out += [(path, node.lineno, a.name.split(".")[0]) for a in node.names]
+                elif isinstance(node, ast.ImportFrom) and node.level == 0 and node.module:
+                    out.append((path, node.lineno, node.module.split(".")[0]))
+                elif (isinstance(node, ast.Call) and getattr(node.func, "attr", "")
+                      == "importorskip" and node.args
+                      and isinstance(node.args[0], ast.Constant)):
+                    out.append((path, node.lineno, str(node.args[0].value).split(".")[0]))
+    return out
+
+
+def test_every_module_the_tests_import_is_declared():
+    """A reference library the tests import (or skip without) is in the test extra or
+    another extra: a check skipped for want of an undeclared package cannot fail in CI.
+    Local helper modules of tests/ and benchmarks/ count as local."""
+    local = {p.stem for folder in (ROOT / "tests", ROOT / "benchmarks")
+             for p in folder.rglob("*.py")} | {"tests", "benchmarks", "docs"}
+    local |= {p.name for folder in (ROOT / "tests", ROOT / "benchmarks")
+              for p in folder.rglob("*") if p.is_dir()}
+    declared = _requirement_names(PYPROJECT["project"]["dependencies"])
+    for reqs in PYPROJECT["project"]["optional-dependencies"].values():
+        declared |= _requirement_names(reqs)
+    undeclared = []
+    for path, line, module in _test_imports():
+        if module in local or module in sys.stdlib_module_names or module == "workbench":
+            continue
+        if module in LAZY or _norm(module) in declared:
+            continue
+        if not _installed(module):
+            undeclared.append(f"{path.relative_to(ROOT)}:{line}: {module} (not installed)")
+            continue
+        if _distribution(module) not in declared:
+            undeclared.append(f"{path.relative_to(ROOT)}:{line}: {module}")
+    assert not undeclared, "imported by tests or benchmarks but not declared: " + \
+        "; ".join(undeclared)
