@@ -41,6 +41,10 @@ ELEMENT_IONS = ("SO4", "NO3", "NH4")
 #: Period statuses.
 PERIOD_STATUSES = ("complete", "flagged", "filled", "missing")
 _UNIT_KG = {"SO4": "kg S ha-1", "NO3": "kg N ha-1", "NH4": "kg N ha-1"}
+#: The words of the failed sample-coverage criterion (a period's reason and
+#: completeness failure); a budget row whose note holds them adds no gap note
+#: (:func:`workbench.budgetstatus.sampling_gap_note`).
+COVERAGE_SHORT = "sample coverage below minimum"
 
 
 def _short_label(label, fraction, of, minimum):
@@ -190,7 +194,7 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
          _short_label("gauge record below minimum", gauge_fraction,
                       "of the period", opt.min_gauge_fraction)),
         (falls_short(coverage_fraction, opt.min_coverage_fraction),
-         _short_label("sample coverage below minimum", coverage_fraction,
+         _short_label(COVERAGE_SHORT, coverage_fraction,
                       "of the period", opt.min_coverage_fraction)),
         (wet & falls_short(vpf, opt.min_valid_precip_fraction),
          _short_label("valid-chemistry precipitation below minimum", vpf,
