@@ -242,7 +242,9 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     has_flagged = (n_flagged_kept > 0) & ~missing & ~filled
     pct = np.round(100 * np.nan_to_num(flagged_share), 1).astype(str)
     reasons = _join(reasons, has_flagged, np.char.add(np.char.add(np.char.add(
-        n_flagged_kept.astype(str), " flagged samples kept ("), pct), " % of precipitation)"))
+        n_flagged_kept.astype(str), np.where(n_flagged_kept == 1, " flagged sample kept (",
+                                             " flagged samples kept (")),
+        pct), " % of precipitation)"))
     # gauge depths filled (collector or met, section 6): the period says so and is
     # 'filled' where nothing weaker holds (docs/budget.md, "Status")
     is_gfill = np.isin(filled_src[i], ["collector", "met"])
@@ -252,7 +254,9 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     has_gfill = (n_gauge_filled > 0) & ~missing
     gpct = np.round(100 * np.nan_to_num(gfill_share), 1).astype(str)
     reasons = _join(reasons, has_gfill, np.char.add(np.char.add(np.char.add(
-        n_gauge_filled.astype(str), " gauge depths filled ("), gpct), " % of precipitation)"))
+        n_gauge_filled.astype(str), np.where(n_gauge_filled == 1, " gauge depth filled (",
+                                             " gauge depths filled (")),
+        gpct), " % of precipitation)"))
     period_status = np.select([missing, filled, failed, has_flagged, has_gfill],
                               ["missing", "filled", "flagged", "flagged", "filled"],
                               "complete").astype(object)
