@@ -119,19 +119,22 @@ def test_budget_rows_note_the_gap_of_their_own_component(run):
     t = result.table
     t = t[t["period"] == "2017"]
     note = t.set_index(["site", "pathway", "species"])["note"].groupby(level=[0, 1, 2]).first()
-    air = "air: 10 weeks without a usable sample (80.8 % of the period's hours covered)"
+    air = "10 weeks without a usable air sample (air coverage 80.8 % of the period)"
     for sp in ("SO2", "HNO3", "NH3"):
         assert note[("v03", "dry", sp)] == air
-        assert "without a usable sample" not in note[("v01", "dry", sp)]
+        assert "without a usable" not in note[("v01", "dry", sp)]
     assert t[(t["site"] == "v03") & (t["species"] == "SO2")]["status"].eq("complete").all()
     assert not note[("v03", "wet", "SO4")]
-    # v02: 14 weeks of the gap and the planted lost sample of the demo's copy (v01 has
-    # the same one week: 1 - 168/8760 = 98.1 %)
-    assert note[("v02", "wet", "SO4")].endswith(
-        "precipitation: 15 weeks without a usable sample (71.2 % of the period's hours "
-        "covered)")
-    assert note[("v01", "wet", "SO4")] == ("precipitation: 1 week without a usable sample "
-                                           "(98.1 % of the period's hours covered)")
+    # v02: 14 weeks of the gap and the planted lost sample of the demo's copy (15 weeks:
+    # 1 - 15 x 168/8760 = 71.2 %, below the 90 % minimum): the failed criterion gives the
+    # share once, with its minimum; the gap note said it again ("precipitation: 15 weeks
+    # without a usable sample (71.2 % of the period's hours covered)")
+    v02 = note[("v02", "wet", "SO4")]
+    assert v02.endswith("sample coverage below minimum (71.2 % of the period; minimum 90 %)")
+    assert v02.count("71.2 %") == 1 and "without a usable" not in v02
+    # (v01 has the same one week: 1 - 168/8760 = 98.1 %)
+    assert note[("v01", "wet", "SO4")] == ("1 week without a usable precipitation sample "
+                                           "(sample coverage 98.1 % of the period)")
 
 
 def test_gap_note_rule():
@@ -140,10 +143,27 @@ def test_gap_note_rule():
     st = np.array([["complete"] * 5 + ["missing", "flagged"]], dtype=object)
     note = np.array([[""] * 6 + ["a reason"]], dtype=object)
     out = sampling_gap_note(note, st, cov, np.full(7, 8760.0)[None, :], "air")
-    assert out[0, :3].tolist() == ["", "", "air: 1 week without a usable sample (98.1 % of "
-                                   "the period's hours covered)"]
-    assert out[0, 3].startswith("air: 26.1 weeks") and out[0, 4] == "" and out[0, 5] == ""
-    assert out[0, 6].startswith("a reason; air: 26.1 weeks")
+    assert out[0, :3].tolist() == ["", "", "1 week without a usable air sample (air coverage "
+                                   "98.1 % of the period)"]
+    assert out[0, 3].startswith("26.1 weeks") and out[0, 4] == "" and out[0, 5] == ""
+    assert out[0, 6].startswith("a reason; 26.1 weeks")
+
+
+def test_gap_note_not_beside_the_failed_coverage():
+    """A note that already gives the coverage as the failed criterion ("sample coverage
+    below minimum (65.5 % ...)") gets no gap note: it said the same share twice, in two
+    phrasings; a note failing on another criterion still gets it."""
+    from workbench.budgetstatus import sampling_gap_note
+    from workbench.wet.deposition import COVERAGE_SHORT
+    failed = f"{COVERAGE_SHORT} (65.5 % of the period; minimum 90 %)"
+    note = np.array([failed, "gauge record below minimum (80.0 % of the period; minimum 90 %)"],
+                    dtype=object)
+    cov = np.array([0.655, 0.95])
+    out = sampling_gap_note(note, np.array(["flagged", "flagged"], dtype=object), cov,
+                            np.full(2, 8760.0), "precipitation", stated_by=COVERAGE_SHORT)
+    assert out[0] == failed
+    assert out[1].endswith("; 2.6 weeks without a usable precipitation sample (sample "
+                           "coverage 95.0 % of the period)")
 
 
 def test_coverage_table_rule():

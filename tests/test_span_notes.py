@@ -5,9 +5,9 @@ import pytest
 
 from workbench.tables import span_table
 
-GAP_1 = "precipitation: 1 week without a usable sample (98.1 % of the period's hours covered)"
-GAP_15 = "precipitation: 1.5 weeks without a usable sample (97.1 % of the period's hours covered)"
-KEPT = "1 flagged samples kept (0.7 % of precipitation)"
+GAP_1 = "1 week without a usable precipitation sample (sample coverage 98.1 % of the period)"
+GAP_15 = "1.5 weeks without a usable precipitation sample (sample coverage 97.1 % of the period)"
+KEPT = "1 flagged sample kept (0.7 % of precipitation)"
 NOT_MEASURED = "not measured at the site (no valid concentration)"
 
 
@@ -70,8 +70,8 @@ def test_demo_span_rows_summarise_the_yearly_notes(ridge_run):
     keys = ["site", "receptor", "element", "pathway", "species"]
     span = t[t["period"] == "span"].set_index(keys)
     years = t[t["period"] != "span"]
-    assert span["note"].astype(str).str.contains("2019: precipitation: 1 week").any()
-    assert span["note"].astype(str).str.contains("2020: 1 flagged samples kept").any()
+    assert span["note"].astype(str).str.contains("2019: 1 week without a usable precipitation sample").any()
+    assert span["note"].astype(str).str.contains("2020: 1 flagged sample kept").any()
     for key, g in years.groupby(keys):
         if key not in span.index:             # no year passes: no span row
             continue

@@ -7,7 +7,7 @@ tests/test_span_notes.py)."""
 import pandas as pd
 import pytest
 
-GAP = "precipitation: 1 week without a usable sample (98.1 % of the period's hours covered)"
+GAP = "1 week without a usable precipitation sample (sample coverage 98.1 % of the period)"
 NOT_MEASURED = "not measured at the site (no valid concentration)"
 
 

@@ -21,6 +21,7 @@ from .budgetstatus import (NO_PNA_AT_SITE, as_flag, bracket_outputs, bulk_caught
                            sampling_gap_note,
                            wet_component, wet_outputs, wet_sulfate_total)
 from .surfacehistory import collector_shares, period_notes
+from .wet.deposition import COVERAGE_SHORT
 
 
 def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods: pd.DataFrame,
@@ -124,7 +125,8 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                 continue
             if "coverage_fraction" in w.variables:        # a gap within the thresholds
                 note = sampling_gap_note(note, st, w.variables["coverage_fraction"].values,
-                                         hours_p[None, :], "precipitation")
+                                         hours_p[None, :], "precipitation",
+                                         stated_by=COVERAGE_SHORT)
             if options.bulk_correction == "scale_wet":
                 f = options.bulk_factor(sp)
                 d = np.where(bulk_p, d * f, d)

@@ -59,17 +59,28 @@ SAMPLING_GAP_NOTE_H = 168.0
 HOURS_PER_WEEK = 168.0
 
 
-def sampling_gap_note(note, status, coverage, hours, role):
+#: The words a gap note names its coverage with, per role: those of the completeness
+#: criterion on the same share ("sample coverage below minimum (65.5 % of the period;
+#: minimum 90 %)", "air coverage below minimum (...)"), so that one share has one name.
+COVERAGE_WORDS = {"precipitation": "sample coverage", "air": "air coverage"}
+
+
+def sampling_gap_note(note, status, coverage, hours, role, stated_by=None):
     """Add to a component's note the hours of its period without a usable sample.
 
     A gap within the completeness thresholds keeps a component ``complete`` (the covered
-    weeks stand for the period): the note says it where the number is read, e.g. ``air:
-    10 weeks without a usable sample (80.8 % of the period's hours covered)``.  Written
+    weeks stand for the period): the note says it where the number is read, e.g. ``10
+    weeks without a usable air sample (air coverage 80.8 % of the period)``.  Written
     for a component that is not ``missing`` with at least :data:`SAMPLING_GAP_NOTE_H`
     hours of its period not covered: no sample (a sampler out of service) or only
     samples left out (a lost sample; input_rows.csv says why).  The coverage is the
     budget's own (``air_coverage``; ``wet_coverage_fraction``, where dry and trace weeks
-    count as covered).
+    count as covered).  A note that already holds `stated_by` (the words of the failed
+    coverage criterion, "sample coverage below minimum", which give the same share with
+    its minimum) gets no gap note: it said the coverage twice, in two phrasings
+    ("sample coverage below minimum (65.5 % of the period; minimum 90 %);
+    precipitation: 18 weeks without a usable sample (65.5 % of the period's hours
+    covered)").
 
     Parameters
     ----------
@@ -80,7 +91,10 @@ def sampling_gap_note(note, status, coverage, hours, role):
     hours : ndarray
         Hours of the periods [h], broadcastable to `coverage`.
     role : str
-        ``air`` or ``precipitation``: the word the note opens with.
+        ``air`` or ``precipitation``: the sample's kind, and the name of its coverage
+        (:data:`COVERAGE_WORDS`).
+    stated_by : str, optional
+        Words of a note part that already states the coverage (no gap note there).
 
     Returns
     -------
@@ -89,12 +103,17 @@ def sampling_gap_note(note, status, coverage, hours, role):
     cov = np.asarray(coverage, float)
     note = np.array(np.broadcast_to(np.asarray(note, dtype=object), cov.shape))
     gap = (1.0 - cov) * np.broadcast_to(np.asarray(hours, float), cov.shape)      # [h]
-    show = np.flatnonzero((np.isfinite(cov) & (cov > 0) & (status != "missing")
-                           & (gap >= SAMPLING_GAP_NOTE_H - 1e-6)).ravel())
+    shown = (np.isfinite(cov) & (cov > 0) & (status != "missing")
+             & (gap >= SAMPLING_GAP_NOTE_H - 1e-6))
+    if stated_by:                     # the failed criterion already gives the share
+        said = np.char.find(np.where(pd.isna(note), "", note).astype(str), stated_by) >= 0
+        shown &= ~said
+    show = np.flatnonzero(shown.ravel())
     flat, flat_gap, flat_cov = note.reshape(-1), gap.reshape(-1), cov.reshape(-1)
     weeks = [round(float(g) / HOURS_PER_WEEK, 1) for g in flat_gap[show]]
-    text = np.array([f"{role}: {w:g} week{'' if w == 1 else 's'} without a usable sample "
-                     f"({100 * c:.1f} % of the period's hours covered)"
+    name = COVERAGE_WORDS.get(role, f"{role} coverage")
+    text = np.array([f"{w:g} week{'' if w == 1 else 's'} without a usable {role} sample "
+                     f"({name} {100 * c:.1f} % of the period)"
                      for w, c in zip(weeks, flat_cov[show])], dtype=object)
     flat[show] = join_notes(flat[show], text)     # the few rows with a gap: their words
     return flat.reshape(cov.shape)

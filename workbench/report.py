@@ -14,6 +14,7 @@ from .budget import OMISSIONS
 from .column_labels import COLUMN_LABELS, header_cell
 from .percent import no_percent_reason, percent_change
 from .runpaths import scenario_base, shown_path, shown_text
+from .report_numbers import DIGITS, ROUNDING_FLOOR, number, plain, table_formatters  # noqa: F401
 from .report_network import (NETWORK_SITES, fold, grouped_free_notes, grouped_notes,
                              network_section)
 
@@ -32,8 +33,6 @@ CSV_CAUTION_LINE = ("The CSV files of this folder carry no caution line of their
                     "beside them holds it; hand it on with them.")
 
 
-#: Significant digits of the report's numbers.
-DIGITS = 3
 #: Sites with figures of their own (budget bars, trends) in the report; a larger network
 #: gets them for its first sites and a sentence saying where the rest is (common
 #: practice: a report of a few hundred interactive figures is slow to write and to open).
@@ -51,46 +50,23 @@ def _figures_limited(n_sites, shown, what) -> str:
     """The sentence telling the reader that figures were drawn for the first sites only."""
     if n_sites <= shown:
         return ""
-    return (f"<p><b>Figures limited:</b> {what} drawn for the first {shown} of {n_sites} "
+    return (f"<p><b>Figures limited:</b> {what} drawn for the first {number(shown)} of "
+            f"{number(n_sites)} "
             f"sites only. The numbers of every site are in the tables of this report and in "
             f"budget.csv and trends.csv of the run folder.</p>")
-
-
-#: Below this magnitude a table value is rounding residue, shown as 0: far below any
-#: meaningful amount in the report's units (kg/ha, eq/ha, mmol/m2; the smallest exact
-#: Mann-Kendall p of 10 values is about 5.5e-7).
-ROUNDING_FLOOR = 1e-12
-
-
-def plain(v, digits=DIGITS) -> str:
-    """A number in plain notation with about `digits` significant digits: no exponent,
-    thousands separated by commas (1,713; 24.6; 0.0123).
-
-    A magnitude below :data:`ROUNDING_FLOOR` is the residue of a sum that cancels (a
-    bracket of 0 written -4.86e-16 kg/ha) and is shown as 0.
-
-    >>> plain(1713.4), plain(24.56), plain(0.012345), plain(0.0), plain(float("nan"))
-    ('1,713', '24.6', '0.0123', '0', '–')
-    >>> plain(-4.86e-16), plain(3e-7)
-    ('0', '0.000000300')
-    """
-    if v is None or not np.isfinite(v):
-        return "–"
-    if abs(v) < ROUNDING_FLOOR:
-        return "0"
-    decimals = max(0, digits - 1 - int(np.floor(np.log10(abs(v)))))
-    text = f"{v:,.{decimals}f}"
-    return text
 
 
 def _table_html(frame: pd.DataFrame, float_format=None, labels=None) -> str:
     """A table of the report: its CSV columns headed in words with units and their CSV
     name (:mod:`workbench.column_labels`; `labels` maps a column to this table's own
-    words), the numbers by :func:`plain`."""
+    words), the numbers by :func:`workbench.report_numbers.number` (a quantity, its
+    thousands separated: counts of rows and samples too, which printed 280344) or as they
+    are where the column names something (a year, a code: ``table_formatters``)."""
     fmt = plain if float_format is None else (lambda v: float_format.format(v))
     # a named column axis (a pivot's "status") is written as an empty column of its own
-    text = frame.rename_axis(columns=None).to_html(index=False, border=0, classes="tab",
-                                                   na_rep="–", float_format=fmt)
+    frame = frame.rename_axis(columns=None)
+    text = frame.to_html(index=False, border=0, classes="tab", na_rep="–", float_format=fmt,
+                         formatters=table_formatters(frame, float_format))
     return _headed(text, frame.columns, labels)
 
 

@@ -16,6 +16,7 @@ import pandas as pd
 # the one ranking rule of report and notebook (and the helpers it shares with them)
 from .ranking import FULL_SET, own_surface_rows, ranking, year_span  # noqa: F401
 from .ranking import years_of as _years
+from .report_numbers import number
 
 #: More sites than this give the report its network layout (common practice: up to a
 #: handful of sites, a reader follows each one through every table).
@@ -29,7 +30,7 @@ def fold(content: str, rows: int, what: str) -> str:
     when it has more than :data:`FOLD_ROWS` rows; as it is otherwise."""
     if rows <= FOLD_ROWS:
         return content
-    return (f"<details><summary>Show {html.escape(what)} ({rows:,} rows)</summary>"
+    return (f"<details><summary>Show {html.escape(what)} ({number(rows)} rows)</summary>"
             f"{content}</details>")
 
 
@@ -72,7 +73,7 @@ def site_summary(span: pd.DataFrame, catalogue, n_periods: int, trends=None,
                 status += f" (no {', '.join(miss.split())})"
             row[f"{el} [kg/ha/yr]"] = r["flux_kg_ha_yr"]
             row[f"{el} status"] = status
-            row[f"{el} years"] = (f"{year_span(used)} ({len(used)} of {n_periods})"
+            row[f"{el} years"] = (f"{year_span(used)} ({number(len(used))} of {number(n_periods)})"
                                   if used else "none")
         if trends is not None:
             for el in ("S", "N"):
@@ -121,7 +122,7 @@ def ranking_html(span: pd.DataFrame, table_html, n_periods=None, sites=None) -> 
         r = ranking(span, el, n_periods, sites)
         out.append(f"<div><h3>{el}</h3>")
         for group, g in r.groupby("group", sort=False):
-            out.append(f"<p><b>{html.escape(group)}</b> ({len(g)} site"
+            out.append(f"<p><b>{html.escape(group)}</b> ({number(len(g))} site"
                        f"{'' if len(g) == 1 else 's'})</p>")
             out.append(table_html(g.drop(columns="group")))
         out.append("</div>")
@@ -154,9 +155,9 @@ def grouped_notes(rows: pd.DataFrame) -> list:
         periods = [p for p in dict.fromkeys(g["period"].astype(str)) if p != "span"]
         when = year_span(periods) + (", whole span" if (g["period"].astype(str) == "span").any()
                                      else "")
-        text = texts[0] + (f" (and {len(texts) - 1} more with other numbers: budget.csv "
+        text = texts[0] + (f" (and {number(len(texts) - 1)} more with other numbers: budget.csv "
                            "has each)" if len(texts) > 1 else "")
-        where = (f"{len(sites)} sites: " if len(sites) > 1 else "") + ", ".join(sites)
+        where = (f"{number(len(sites))} sites: " if len(sites) > 1 else "") + ", ".join(sites)
         items.append((len(sites), f"<li>{html.escape(str(sp))}: {html.escape(text)} — "
                                   f"<i>{html.escape(where)}</i> ({html.escape(when.strip(', '))})</li>"))
     items.sort(key=lambda x: -x[0])
@@ -192,7 +193,7 @@ def grouped_free_notes(notes, site_ids) -> list:
     out = []
     for first, sites in groups.values():
         more = sites[1:]
-        out.append(first + (f" — the same at {len(more)} more site"
+        out.append(first + (f" — the same at {number(len(more))} more site"
                             f"{'s' if len(more) > 1 else ''}: {', '.join(more)}"
                             if more else ""))
     return out
@@ -281,9 +282,9 @@ def network_section(result, study, span_all, exceedance, table_html) -> tuple:
     summ = site_summary(span, cat, n_periods, tr, ex, sites)
     n_sites = len(summ)
     out = ["<h2 id='sites'>The sites of the network</h2>",
-           f"<p>{n_sites} sites, each on its own surface (its land use in sites.toml); "
+           f"<p>{number(n_sites)} sites, each on its own surface (its land use in sites.toml); "
            "whole-span totals are the mean of the years that pass completeness, with the "
-           f"years used (of the run's {n_periods}). Trends: Sen slope of the annual totals, "
+           f"years used (of the run's {number(n_periods)}). Trends: Sen slope of the annual totals, "
            "\"not valid\" when too few complete years (the trend section below says why). "
            "Every receptor of every site is in the folded tables below and in budget.csv, "
            "summary.csv and exceedance.csv.</p>",

@@ -170,8 +170,8 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
 
 def _notes_by_year(rows: pd.DataFrame, keys) -> pd.Series:
     """The span row's ``note``: the yearly rows' notes over the years used, each note
-    once with the years that carry it (``2017 2019: precipitation: 1 week without a
-    usable sample (...)``; ``every year used: not measured at the site (...)`` when each
+    once with the years that carry it (``2017 2019: 1 week without a usable
+    precipitation sample (...)``; ``every year used: not measured at the site (...)`` when each
     year used carries it), joined with "; " in the order of their first year.
 
     A yearly note of several parts ("; "-joined, :func:`workbench.budgetstatus.join_notes`)

@@ -43,7 +43,7 @@ def test_kept_flagged_samples_flag_the_period_with_their_share():
     assert _june(wet, "status") == "flagged"
     assert _june(wet, "n_flagged") == 1
     assert _june(wet, "flagged_precip_fraction") == pytest.approx(20 / 40)
-    assert "1 flagged samples kept (50.0 % of precipitation)" in _june(wet, "completeness_reasons")
+    assert "1 flagged sample kept (50.0 % of precipitation)" in _june(wet, "completeness_reasons")
     assert not _june(wet, "completeness_failed")
     # the same month without the bad sample is complete
     clean = wet_deposition(screen(make_samples(_month([GOOD] * 4), ions=IONS)), "month")

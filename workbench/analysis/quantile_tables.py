@@ -11,6 +11,7 @@ import pandas as pd
 import xarray as xr
 
 from ..budget import COMPONENTS
+from ..report_numbers import number
 from ..units import element_deposition_in
 
 #: Quantiles reported [1] and the suffixes of their columns.
@@ -251,7 +252,7 @@ def draws_in_force(options, bulk=None, gamma=None) -> str:
             f"lab_bias_filter_pack = {str(getattr(options, 'lab_bias_filter_pack', False)).lower()}, "
             + bulk_words + gamma_words(options, gamma) + pair_words(options)
             + f"gauge_catch_rel_sd = {options.gauge_catch_rel_sd:g} per gauge period "
-            f"({options.draws} draws, seed {options.seed}).")
+            f"({number(options.draws)} draws, seed {options.seed}).")
 
 
 def report_section(table, to_html, options=None, text_options=None, bulk=None,

@@ -41,6 +41,10 @@ ELEMENT_IONS = ("SO4", "NO3", "NH4")
 #: Period statuses.
 PERIOD_STATUSES = ("complete", "flagged", "filled", "missing")
 _UNIT_KG = {"SO4": "kg S ha-1", "NO3": "kg N ha-1", "NH4": "kg N ha-1"}
+#: The words of the failed sample-coverage criterion (a period's reason and
+#: completeness failure); a budget row whose note holds them adds no gap note
+#: (:func:`workbench.budgetstatus.sampling_gap_note`).
+COVERAGE_SHORT = "sample coverage below minimum"
 
 
 def _short_label(label, fraction, of, minimum):
@@ -190,7 +194,7 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
          _short_label("gauge record below minimum", gauge_fraction,
                       "of the period", opt.min_gauge_fraction)),
         (falls_short(coverage_fraction, opt.min_coverage_fraction),
-         _short_label("sample coverage below minimum", coverage_fraction,
+         _short_label(COVERAGE_SHORT, coverage_fraction,
                       "of the period", opt.min_coverage_fraction)),
         (wet & falls_short(vpf, opt.min_valid_precip_fraction),
          _short_label("valid-chemistry precipitation below minimum", vpf,
@@ -238,7 +242,9 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     has_flagged = (n_flagged_kept > 0) & ~missing & ~filled
     pct = np.round(100 * np.nan_to_num(flagged_share), 1).astype(str)
     reasons = _join(reasons, has_flagged, np.char.add(np.char.add(np.char.add(
-        n_flagged_kept.astype(str), " flagged samples kept ("), pct), " % of precipitation)"))
+        n_flagged_kept.astype(str), np.where(n_flagged_kept == 1, " flagged sample kept (",
+                                             " flagged samples kept (")),
+        pct), " % of precipitation)"))
     # gauge depths filled (collector or met, section 6): the period says so and is
     # 'filled' where nothing weaker holds (docs/budget.md, "Status")
     is_gfill = np.isin(filled_src[i], ["collector", "met"])
@@ -248,7 +254,9 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     has_gfill = (n_gauge_filled > 0) & ~missing
     gpct = np.round(100 * np.nan_to_num(gfill_share), 1).astype(str)
     reasons = _join(reasons, has_gfill, np.char.add(np.char.add(np.char.add(
-        n_gauge_filled.astype(str), " gauge depths filled ("), gpct), " % of precipitation)"))
+        n_gauge_filled.astype(str), np.where(n_gauge_filled == 1, " gauge depth filled (",
+                                             " gauge depths filled (")),
+        gpct), " % of precipitation)"))
     period_status = np.select([missing, filled, failed, has_flagged, has_gfill],
                               ["missing", "filled", "flagged", "flagged", "filled"],
                               "complete").astype(object)
