@@ -12,21 +12,16 @@ ratio.  Load: say `uptime`.
 from __future__ import annotations
 
 import argparse
-import time
+import sys
+from pathlib import Path
 
 import numpy as np
 
 from workbench.budget import DERIVED_PARTS
 from workbench.budget_totals import _joined_names
 
-
-def best(fn, repeat):
-    out = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        out.append(time.perf_counter() - t0)
-    return min(out)
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from lazy_hash import best  # noqa: E402  (best-of-n wall time)
 
 
 def row_loop(sub, parts):

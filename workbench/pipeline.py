@@ -396,7 +396,7 @@ class Study(_StudyVelocities):
                     "season_cov": season_cov}
             if c_history and wet.value is not None:
                 # a collector changed: each sample under its own collector's rules
-                # (docs/budget.md, "Bulk collectors"; workbench/surfacehistory.py)
+                # (docs/budget.md, "Bulk collectors"; workbench/surfacecollectors.py)
                 deps["collector"] = self._run(
                     "collector_split", {"wet": wet_options},
                     {"screened": self._screened_node(wet_options), "periods": table,
