@@ -75,7 +75,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     # the collector in force over each period (docs/budget.md, "Bulk collectors": a
     # declared collector change is followed): share of the period's hours under bulk
     bulk_share, coll_words = collector_shares(catalogue, sites, periods)
-    # sample by sample where the samples are known (workbench/surfacehistory.py,
+    # sample by sample where the samples are known (workbench/surfacecollectors.py,
     # collector_split): the hours sampled under bulk; `estimated` where a sample that
     # holds a change's day was split between the collectors
     split = _collector_split_on(collector, sites, n_p)

@@ -10,7 +10,7 @@ import pandas as pd
 import xarray as xr
 
 from .budget_components import DERIVED_PARTS, OXIDIZED_N, PAIRS, REDUCED_N
-from .budget_totals import _first_failure, combine_status, sum_present
+from .budget_totals import _first_failure, _joined_names, combine_status, sum_present
 from .species import element_molar_mass
 from .units import UG_PER_KG, deposition_in, element_deposition_in
 
@@ -79,8 +79,7 @@ def derived_status(table: pd.DataFrame) -> pd.DataFrame:
     for name, parts in DERIVED_PARTS.items():
         sub = st.reindex(columns=list(parts)).fillna("missing").to_numpy(object)
         out[f"{name}_status"], _ = combine_status(sub)
-        out[f"{name}_missing_components"] = [
-            " ".join(p for p, v in zip(parts, row) if v == "missing") for row in sub]
+        out[f"{name}_missing_components"] = _joined_names(sub == "missing", parts)
         present = sub != "missing"
         fails = present & ~okw.reindex(columns=list(parts)).fillna(True).to_numpy(bool)
         words = whyw.reindex(columns=list(parts)).fillna("").to_numpy(object)

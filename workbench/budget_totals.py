@@ -92,13 +92,8 @@ def _totals(dep, status, compl, element, pathway, species, fails=None, failure=N
             total = sum_present(d)
             combined, _ = combine_status(st)
             passes = ~(fails[..., sel] & (st != "missing")).any(-1) & (combined != "missing")
-            absent = np.full(total.shape, "", dtype=object)
-            flagged = np.full(total.shape, "", dtype=object)
-            for k, spn in enumerate(species[sel]):
-                absent = np.where(st[..., k] == "missing",
-                                  np.where(absent == "", spn, absent + " " + spn), absent)
-                flagged = np.where(st[..., k] == "flagged",
-                                   np.where(flagged == "", spn, flagged + " " + spn), flagged)
+            absent = _joined_names(st == "missing", species[sel])
+            flagged = _joined_names(st == "flagged", species[sel])
             # np.fmin.reduce is what np.nanmin computes on a float array, without the
             # all-NaN warning: no catch_warnings (process-wide filters, not safe when
             # blocks of sites run on threads)
@@ -151,11 +146,40 @@ def _first_failure(fails, words, species):
     first = np.full(shape, "", dtype=object)
     for k in range(fails.shape[-1]):                 # over the components, a few
         first = np.where((first == "") & fails[..., k], words[..., k], first)
-    names = np.full(shape, "", dtype=object)
-    for k, spn in enumerate(species):
-        same = fails[..., k] & (words[..., k] == first) & (first != "")
-        names = np.where(same, np.where(names == "", spn, names + " " + spn), names)
+    names = _joined_names(fails & (words == first[..., None]) & (first != "")[..., None],
+                          species)
     return np.where(first == "", "", names + ": " + first).astype(object)
+
+
+def _joined_names(mask, names) -> np.ndarray:
+    """The `names` where `mask` holds along the last axis, in their order, joined by one
+    space ('' where none), over whole arrays: each distinct row of `mask` is joined
+    once (a few: one per combination met), and the rows take theirs by index.
+
+    Parameters
+    ----------
+    mask : ndarray of bool (..., name)
+    names : sequence of str (name,)
+
+    Returns
+    -------
+    ndarray of str (...), object dtype
+
+    >>> _joined_names(np.array([[True, False, True], [False, False, False]]),
+    ...               ("NO3", "HNO3", "NO2")).tolist()
+    ['NO3 NO2', '']
+    """
+    mask = np.asarray(mask, dtype=bool)
+    names = list(names)
+    if mask.size == 0:                              # no rows, or no names
+        return np.full(mask.shape[:-1], "", dtype=object)
+    flat = mask.reshape(-1, len(names))
+    packed = np.packbits(flat, axis=1)              # each row's bits as bytes, one key
+    key = np.ascontiguousarray(packed).view(f"V{packed.shape[1]}").ravel()
+    _, first, index = np.unique(key, return_index=True, return_inverse=True)
+    joined = np.array([" ".join(names[k] for k in np.flatnonzero(flat[i])) for i in first],
+                      dtype=object)
+    return joined[index.reshape(mask.shape[:-1])]
 
 
 def add_totals(ds: xr.Dataset) -> xr.Dataset:

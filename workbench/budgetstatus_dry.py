@@ -36,10 +36,7 @@ def no_concentration_note(period_masked) -> np.ndarray:
     >>> no_concentration_note(np.array(["", "NH3 above the plausible 1000 ug/m3"], object)).tolist()
     ['no concentration in the period', 'every value of the period masked: NH3 above the plausible 1000 ug/m3']
     """
-    m = np.asarray(period_masked, dtype=object)
-    m = np.where(pd.isna(m), "", m).astype(str)
-    return np.where(m == "", NO_CONCENTRATION_NOTE,
-                    np.char.add(PERIOD_MASKED_NOTE + ": ", m)).astype(object)
+    return _masked_or(period_masked, PERIOD_MASKED_NOTE, NO_CONCENTRATION_NOTE)
 
 
 def unmeasured_note(masked) -> np.ndarray:
@@ -52,10 +49,15 @@ def unmeasured_note(masked) -> np.ndarray:
     >>> unmeasured_note(np.array(["", "NH3 above the plausible 1000 ug/m3"], object)).tolist()
     ['not measured at the site (no valid concentration)', 'measured, every value masked: NH3 above the plausible 1000 ug/m3']
     """
-    m = np.asarray(masked, dtype=object)
+    return _masked_or(masked, ALL_MASKED_NOTE, NOT_MEASURED_NOTE)
+
+
+def _masked_or(reasons, masked_note, empty_note) -> np.ndarray:
+    """`masked_note` + ": " + the reader's reason where `reasons` holds one, `empty_note`
+    where it is "" or missing (object array of the shape of `reasons`)."""
+    m = np.asarray(reasons, dtype=object)
     m = np.where(pd.isna(m), "", m).astype(str)
-    return np.where(m == "", NOT_MEASURED_NOTE,
-                    np.char.add(ALL_MASKED_NOTE + ": ", m)).astype(object)
+    return np.where(m == "", empty_note, np.char.add(masked_note + ": ", m)).astype(object)
 
 
 def dry_failure_words(coverage, flux_cov, season_ok, options):

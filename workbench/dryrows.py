@@ -292,6 +292,15 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
     return out
 
 
+def _json_attr(attrs, name) -> dict:
+    """The JSON object written by the air reader in the attribute `name` of an air
+    Dataset's `attrs`, decoded; {} where the attribute is absent or empty (an air
+    Dataset made elsewhere: a grid, a test's table)."""
+    import json
+
+    return json.loads(attrs.get(name, "{}") or "{}")
+
+
 def masked_notes(attrs, sites, species) -> np.ndarray:
     """Why each species has no value at each site though it was measured there: every
     value masked by a check of the air reader (the air Dataset's attribute
@@ -311,11 +320,9 @@ def masked_notes(attrs, sites, species) -> np.ndarray:
         in its rows (not measured) and without the attribute (an air Dataset made
         elsewhere: a grid, a test's table).
     """
-    import json
-
     from .io.samplecolumns import ALL_MASKED_ATTR
     out = np.full((len(sites), len(species)), "", dtype=object)
-    gone = json.loads(attrs.get(ALL_MASKED_ATTR, "{}") or "{}")
+    gone = _json_attr(attrs, ALL_MASKED_ATTR)
     where = {str(s): i for i, s in enumerate(sites)}
     for k, sp in enumerate(species):
         for site, why in gone.get(sp, {}).items():     # the few sites that lost all
@@ -344,10 +351,8 @@ def masked_runs(attrs, sites, species) -> pd.DataFrame:
         without the attribute (an air Dataset made elsewhere: a grid, a test's table)
         and for sites not in `sites`.
     """
-    import json
-
     from .io.samplecolumns import MASKED_RUNS_ATTR
-    data = json.loads(attrs.get(MASKED_RUNS_ATTR, "{}") or "{}")
+    data = _json_attr(attrs, MASKED_RUNS_ATTR)
     reasons = np.asarray(data.get("reasons", []), dtype=object)
     where = pd.Index([str(s) for s in sites])
     parts = []

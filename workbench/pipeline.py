@@ -26,9 +26,7 @@ velocities (only their assembly) and no gas's rows.
 from __future__ import annotations
 
 import dataclasses
-import functools
 import uuid
-from dataclasses import dataclass, field
 from types import SimpleNamespace
 
 import numpy as np
@@ -36,67 +34,22 @@ import pandas as pd
 import xarray as xr
 
 from . import stages as _stages
-from .budget import COMPONENTS, BudgetOptions
+from .budget import BudgetOptions
 from .drycomponents import dry_components, dry_rows
 from .dryrows import exchange_member_rows
 from .graph import Graph, Node, content_digest, input_node, token
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
 from .periods import default_span, excluded_record_notes
-from .surfacehistory import collector_history, earlier_classes, land_use_history, mast_history
-from .tables import budget_table, span_table
+from .pipeline_result import Result
+from .pipeline_velocities import _NONE, _StudyVelocities
+from .surfacehistory import collector_history
 
 #: Kept for older imports: the wet options of the wet chain alone.
 WET_PERIOD_OPTIONS = _stages.WET_PERIOD_OPTIONS
-_NONE = input_node("none", "", None)
 
 
-@dataclass
-class Result:
-    """Everything one run produces.
-
-    ``table`` (the budget.csv rows) and ``derived`` are built on first use, so that the
-    apps, which draw from the Datasets, do not pay for them on every change.  Most
-    arrays of ``velocities`` are shared with the study's caches and read-only; take a
-    ``.copy()`` of the Dataset to change values in place.
-    """
-
-    budget: xr.Dataset            #: (site, receptor, period, component) at the resolution
-    years: xr.Dataset             #: the same for calendar years
-    screened: xr.Dataset | None   #: per-sample QA
-    wet: xr.Dataset | None        #: wet chain at the resolution
-    velocities: xr.Dataset | None  #: hourly Ra, Rb, Rc, Vd (arrays may be read-only: ``.copy()``)
-    periods: pd.DataFrame
-    options: dict = field(default_factory=dict)
-    notes: list = field(default_factory=list)
-    #: stage name -> the graph key of the result shown here (``"years"``, ``"budget"``,
-    #: ``"screened"``, ``"wet"``, ``"velocities"``): equal keys, equal numbers.
-    keys: dict = field(default_factory=dict)
-    graph: Graph | None = field(default=None, repr=False, compare=False)
-
-    @property
-    def nbytes(self) -> int:
-        """Bytes of its Datasets (shared with a graph's entries; what a graph holding
-        the result counts, so that a bounded cache of results stays bounded)."""
-        return int(sum(ds.nbytes for ds in (self.budget, self.years, self.screened, self.wet,
-                                             self.velocities) if ds is not None))
-
-    @functools.cached_property
-    def table(self) -> pd.DataFrame:
-        """budget.csv rows: the resolution periods, then the whole span."""
-        span = span_table(budget_table(self.years))
-        return pd.concat([budget_table(self.budget), span], ignore_index=True)
-
-    @functools.cached_property
-    def derived(self) -> xr.Dataset:
-        """Shares, oxidized / reduced N, potential acidity, brackets, total nitrate."""
-        key = self.keys.get("budget")
-        if self.graph is None or key is None:
-            return _stages.derived_quantities(None, self.budget)
-        return self.graph.run("derived", deps={"budget": Node(key, self.budget)}).value
-
-
-class Study:
+class Study(_StudyVelocities):
     """The inputs of a study and its stages, run through a stage graph.
 
     Parameters
@@ -295,69 +248,6 @@ class Study:
         """Receptor surfaces of the catalogue with the overrides (a stage of the graph)."""
         return self._surfaces_node(overrides).value
 
-    def _velocities_node(self, dry_options, overrides=None, receptors=None) -> Node:
-        """Velocities of every site on `receptors`, or (None) of the wanted pairs: each
-        group of sites asking for the same receptors (:func:`stages.pair_groups`) is
-        computed on its own receptors, and the groups are put on the (site, receptor,
-        time) layout with the other pairs not computed (:func:`stages.wanted_pairs`)."""
-        if self.inputs.met is None:
-            return _NONE
-        met = self._input("met", self.inputs.met)
-        surf = self._surfaces_node(overrides)
-        times = met.value["time"].values
-        first = times.min() - np.timedelta64(1, "h") if times.size else None
-        history = tuple(h for h in land_use_history(self.catalogue(overrides))  # changes
-                        if first is None or np.datetime64(h[2][-1][0], "ns") > first)  # in the met
-        if not history:
-            return self._velocities_on(dry_options, overrides, met, surf, receptors)
-        # the site's own surface follows its declared land-use changes: the earlier
-        # classes are computed as receptors of the site, then put on its own row hour by
-        # hour (docs/data_formats.md, "A long record"; workbench/surfacehistory.py)
-        surf_h = self._run("history_surfaces", deps={"catalogue": self._catalogue_node(overrides)},
-                           params={"history": history})
-        mast = mast_history(self.catalogue(overrides), history)
-        if mast:
-            # the wind mast of a site without met_land_use stands over its own surface:
-            # its z0 and d follow the history hour by hour too (workbench/surfacehistory.py)
-            met = self._run("mast_in_force", deps={"met": met}, params={"history": mast})
-        every = tuple(str(r) for r in surf.value["receptor"].values)
-        shown = every if receptors is None else tuple(receptors)
-        extra = tuple(dict.fromkeys(c for cs in earlier_classes(history).values() for c in cs
-                                    if c not in shown))
-        computed = self._velocities_on(dry_options, overrides, met, surf_h,
-                                       None if receptors is None else shown + extra)
-        return self._run("land_use_in_force", deps={"velocities": computed, "surfaces": surf},
-                         params={"history": history, "receptors": shown,
-                                 "wanted": receptors is None})
-
-    def _velocities_on(self, dry_options, overrides, met: Node, surf: Node, receptors) -> Node:
-        """:meth:`_velocities_node` on the surfaces of `surf`."""
-        if receptors is not None:
-            return self._group_velocities(dry_options, overrides, met, surf, receptors)
-        sites = tuple(str(s) for s in met.value["site"].values)
-        groups = _stages.pair_groups(surf.value, sites)
-        every = tuple(str(r) for r in surf.value["receptor"].values)
-        if len(groups) == 1 and groups[0][1] == every:       # every site wants every pair
-            return self._group_velocities(dry_options, overrides, met, surf, None)
-        parts = {}
-        for i, (ids, recs) in enumerate(groups):
-            sub = met if ids == sites else self._run("site_subset", deps={"data": met},
-                                                     params={"sites": ids})
-            parts[f"group{i:06d}"] = self._group_velocities(dry_options, overrides, sub,
-                                                            surf, recs)
-        return self._run("wanted_pairs", deps=parts,
-                         params={"sites": sites, "receptors": every})
-
-    def _group_velocities(self, dry_options, overrides, met: Node, surf: Node,
-                          receptors) -> Node:
-        """The velocities stage on the sites of `met` and some receptors (None: all)."""
-        steps = self.graph.steps(f"{met.key}+{surf.key}", self.counts)
-        return self._run("velocities", {"dry": dry_options},
-                         {"met": met, "surfaces": surf, "catalogue": self._catalogue_node(overrides),
-                          "steps": Node(f"input:steps:{met.key}+{surf.key}", steps),
-                          "air": self._input("air", self.inputs.air)},
-                         {"receptors": None if receptors is None else tuple(receptors)})
-
     def velocities(self, dry_options, overrides=None, receptors=None):
         """Hourly Vd and resistances: of the pairs the sites ask for (the others NaN,
         ``active`` false), or of every site on the receptors named."""
@@ -366,66 +256,6 @@ class Study:
     def receptors(self, overrides=None) -> list:
         """Every receptor surface of the sites, in the order of the budget."""
         return list(dict.fromkeys(r for s in self.catalogue(overrides) for r in s.surfaces))
-
-    def _needs_model(self, fixed_velocity) -> bool:
-        """True when a measured dry species has no fixed velocity."""
-        dry_species = [c[2] for c in COMPONENTS if c[1] == "dry"]
-        measured = [sp for sp in dry_species if self.inputs.air is not None and sp in self.inputs.air]
-        return self.inputs.met is not None and any(sp not in (fixed_velocity or {}) for sp in measured)
-
-    def _velocity_sets(self, dry_options, budget_options, fixed_velocity, overrides,
-                       receptors=None) -> dict:
-        """Gap-filled Vd per species: (filled Vd, was filled, source), as
-        :func:`workbench.drycomponents.prepare_velocities` gives them."""
-        nodes = self._velocity_nodes(dry_options, budget_options, dict(fixed_velocity or {}),
-                                     overrides, receptors)
-        return {k: n.value["vel"] for k, n in nodes.items()}
-
-    def _velocity_nodes(self, dry_options, budget_options, fixed_velocity, overrides,
-                        receptors=None, vd=None) -> dict:
-        """Nodes of the gap-filled Vd per species (model or fixed value), each a stage
-        keyed by the content of the species' Vd: a dry option that leaves it as it was
-        (a particle size, for the gases) reuses its fill and its rows."""
-        dry_species = [c[2] for c in COMPONENTS if c[1] == "dry"]
-        if vd is None:
-            vd = (self._velocities_node(dry_options, overrides, receptors)
-                  if self._needs_model(fixed_velocity) else _NONE)
-        ids = tuple(self.catalogue(overrides).ids)
-        opts = {"budget": budget_options}
-        met = self._input("met", self.inputs.met)
-        slots = (self._run("hour_slots", deps={"met": met})    # one time axis for all
-                 if met.value is not None else _NONE)
-        every = tuple(receptors) if receptors is not None else tuple(self.receptors(overrides))
-
-        def content(var):
-            d = self._run("vd_content", deps={"velocities": vd}, params={"variable": var})
-            scheme = vd.value.attrs.get("gas_scheme", "model")
-            return Node("vd_content:" + d.value, (vd.value[var], scheme))
-
-        # a site's own surface that changed class inside the record: each hour's Vd is
-        # filled from the hours of its class in force only (docs/methods_dry.md)
-        lu = None if vd.value is None else vd.value.get("land_use_in_force")
-        fill_deps = {"slots": slots}
-        if lu is not None and bool((lu != lu.isel(time=0)).any()):
-            fill_deps["classes"] = content("land_use_in_force")
-        out = {}
-        for sp in dry_species:
-            if sp in fixed_velocity:
-                axes = self._input("axes", (ids, every, self.inputs.met["time"].values),
-                                   overrides, every)
-                out[sp] = self._run("vd_fill", opts, {"vd": axes, "slots": slots},
-                                    {"name": sp, "fixed": fixed_velocity[sp], "sites": ids})
-            elif vd.value is not None and f"vd_{sp}" in vd.value:
-                out[sp] = self._run("vd_fill", opts, {"vd": content(f"vd_{sp}"), **fill_deps},
-                                    {"name": sp, "fixed": None, "sites": ids})
-        if (getattr(dry_options, "nh3_treatment", "") == "bidirectional" and vd.value is not None
-                and "vd_NH3_bidirectional" in vd.value and "NH3" in out
-                and "NH3" not in fixed_velocity):                   # the net NH3 flux
-            for name, var in _stages.NH3_EXCHANGE.items():
-                if var in vd.value:
-                    out[name] = self._run("vd_fill", opts, {"vd": content(var), **fill_deps},
-                                          {"name": name, "fixed": None, "sites": ids})
-        return out
 
     def _dry_rows_node(self, dry_options, budget_options, fixed_velocity=None, overrides=None,
                        receptors=None, vd=None) -> Node:
@@ -566,7 +396,7 @@ class Study:
                     "season_cov": season_cov}
             if c_history and wet.value is not None:
                 # a collector changed: each sample under its own collector's rules
-                # (docs/budget.md, "Bulk collectors"; workbench/surfacehistory.py)
+                # (docs/budget.md, "Bulk collectors"; workbench/surfacecollectors.py)
                 deps["collector"] = self._run(
                     "collector_split", {"wet": wet_options},
                     {"screened": self._screened_node(wet_options), "periods": table,

@@ -11,12 +11,17 @@ import pandas as pd
 
 from . import __version__
 from .budget import OMISSIONS
-from .column_labels import COLUMN_LABELS, header_cell
-from .percent import no_percent_reason, percent_change
 from .runpaths import scenario_base, shown_path, shown_text
-from .report_numbers import DIGITS, ROUNDING_FLOOR, number, plain, table_formatters  # noqa: F401
 from .report_network import (NETWORK_SITES, fold, grouped_free_notes, grouped_notes,
                              network_section)
+# the report's parts, re-exported here (imports of workbench.report keep working)
+from .report_sections import (_BRACKET_COLUMN, MAX_SITE_FIGURES,  # noqa: F401
+                              _bracket_notes_html, _exceedance_html, _figures_limited,
+                              _nh3_html, _own_periods, _schemes_html, _settings_html,
+                              _trend_html, scheme_title)
+from .report_numbers import number, table_formatters  # noqa: F401
+from .report_tables import (_FAILS_MARK, _MARK, DIGITS, ROUNDING_FLOOR,  # noqa: F401
+                            _fails, _headed, _lacks, _pivot_html, _table_html, plain)
 
 CAUTION = (
     "Deposition estimates are model-based and uncertain. Dry deposition is inferred from "
@@ -33,87 +38,11 @@ CSV_CAUTION_LINE = ("The CSV files of this folder carry no caution line of their
                     "beside them holds it; hand it on with them.")
 
 
-#: Sites with figures of their own (budget bars, trends) in the report; a larger network
-#: gets them for its first sites and a sentence saying where the rest is (common
-#: practice: a report of a few hundred interactive figures is slow to write and to open).
-MAX_SITE_FIGURES = 12
-
-
 def _periods_text(periods) -> str:
     """`` (2017, whole span)``: the periods of a note, the whole span last."""
     named = sorted(p for p in periods if p != "span")
     named += ["whole span"] if "span" in periods else []
     return f" ({', '.join(named)})" if named else ""
-
-
-def _figures_limited(n_sites, shown, what) -> str:
-    """The sentence telling the reader that figures were drawn for the first sites only."""
-    if n_sites <= shown:
-        return ""
-    return (f"<p><b>Figures limited:</b> {what} drawn for the first {number(shown)} of "
-            f"{number(n_sites)} "
-            f"sites only. The numbers of every site are in the tables of this report and in "
-            f"budget.csv and trends.csv of the run folder.</p>")
-
-
-def _table_html(frame: pd.DataFrame, float_format=None, labels=None) -> str:
-    """A table of the report: its CSV columns headed in words with units and their CSV
-    name (:mod:`workbench.column_labels`; `labels` maps a column to this table's own
-    words), the numbers by :func:`workbench.report_numbers.number` (a quantity, its
-    thousands separated: counts of rows and samples too, which printed 280344) or as they
-    are where the column names something (a year, a code: ``table_formatters``)."""
-    fmt = plain if float_format is None else (lambda v: float_format.format(v))
-    # a named column axis (a pivot's "status") is written as an empty column of its own
-    frame = frame.rename_axis(columns=None)
-    text = frame.to_html(index=False, border=0, classes="tab", na_rep="–", float_format=fmt,
-                         formatters=table_formatters(frame, float_format))
-    return _headed(text, frame.columns, labels)
-
-
-def _headed(text: str, columns, labels=None) -> str:
-    """`text` (one table of pandas' ``to_html``) with its header row made by
-    :func:`workbench.column_labels.header_cell`."""
-    labels = labels or {}
-    row = "".join(header_cell(c, labels.get(c)) for c in columns)
-    return re.sub(r"<thead>.*?</thead>", lambda m: f"<thead><tr>{row}</tr></thead>", text,
-                  count=1, flags=re.S)
-
-
-_MARK = {"complete": "", "flagged": " f", "partial": " p", "filled": " ~", "missing": ""}
-#: The mark of a total that fails completeness (``passes`` false).
-_FAILS_MARK = " x"
-
-
-def _lacks(row) -> bool:
-    """The row's sum lacks a component (a flagged total may: flagged wins over partial)."""
-    m = row.get("missing_components")
-    return isinstance(m, str) and m.strip() != ""
-
-
-def _fails(row) -> bool:
-    """The row's total fails completeness (budget.csv's ``passes`` false, not missing):
-    a flagged total that is no complete figure for its period, apart from one flagged
-    only to be read with care."""
-    p = row.get("passes")
-    return (p is not None and not pd.isna(p) and str(p).lower() not in ("true", "1")
-            and row.get("status") != "missing")
-
-
-def _pivot_html(per: pd.DataFrame) -> str:
-    """Rows site/receptor/element, one column per period, value with a status mark; a
-    total that fails completeness is marked ``x`` (not ``f``, which is left to a
-    passing total flagged to be read with care)."""
-    if per.empty:
-        return "<p>No periods.</p>"
-    cell = per.apply(lambda r: "–" if not np.isfinite(r["flux_kg_ha_yr"]) else
-                     f"{plain(r['flux_kg_ha_yr'])}"
-                     + (_FAILS_MARK if _fails(r) else _MARK.get(r['status'], '?'))
-                     + (" p" if r["status"] != "partial" and _lacks(r) else ""), axis=1)
-    wide = per.assign(cell=cell).pivot_table(index=["site", "receptor", "element"],
-                                             columns="period", values="cell", aggfunc="first")
-    wide.columns.name = None
-    wide = wide.reset_index()
-    return _headed(wide.to_html(index=False, border=0, classes="tab", na_rep="–"), wide.columns)
 
 
 #: Reporting periods drawn in a site's budget figure when it shows the scenario's own
@@ -129,241 +58,6 @@ LEDGER_WORDS = {"read": "Rows read", "accepted": "Accepted", "flagged": "Flagged
 #: width in a 1,000 px window (the body less its padding and a scroll bar, ~950 px)
 #: with room to spare; wider pages draw them as wide as the page.
 REPORT_FIGURE_PX = 900
-
-
-def _own_periods(result, years) -> bool:
-    """The run's reporting periods differ from the calendar years (resolution month,
-    season or hydro_year), so a figure may show them instead."""
-    budget = getattr(result, "budget", None)
-    if budget is None or budget is years or "period" not in budget.dims:
-        return False
-    return [str(v) for v in budget["period"].values] != [str(v) for v in years["period"].values]
-
-
-def _exceedance_html(result, study, network=False, ex=None) -> list:
-    """The span's critical-load exceedances (exceedance.csv has every year); folded when
-    long in the `network` layout.  `ex`: the exceedance table, if already computed."""
-    from .analysis.exceedance import REGIONS, exceedance_table
-    if ex is None:
-        ex = exceedance_table(result, study.catalogue())
-    out = ["<h2>Critical-load exceedance of the mean deposition of the years that pass "
-           "completeness [eq/ha/yr]</h2>"]
-    span = ex[ex["period"] == "span"]
-    if span.empty:
-        if len(ex):
-            return out + ["<p>No year passes completeness: each year's exceedance, with its "
-                          "status and notes, is in exceedance.csv.</p>"]
-        return out + ["<p>No critical loads in sites.toml, or no year passes completeness.</p>"]
-    out.append("<p>Acidity: the sum of the S and N reductions to the nearest point of the "
-               "critical load function (ICP Modelling and Mapping Manual); nutrient N: "
-               "deposition above CLnutN. Regions: "
-               + "; ".join(f"{k} {html.escape(v)}" for k, v in REGIONS.items()
-                           if k >= 0 or (span["region"] == k).any())
-               + ". The exceedance is not linear in the deposition: that of the mean "
-               "deposition is not the mean of the years' exceedances (a year can exceed "
-               "where the mean deposition does not). Every year, the loads used and the "
-               "notes are in exceedance.csv; critical loads carry their own uncertainty.</p>")
-    cols = ["site", "receptor", "s_dep_eq_ha_yr", "n_dep_eq_ha_yr", "ex_acidity_eq_ha_yr",
-            "region", "ex_nutrient_n_eq_ha_yr", "status", "note"]
-    drawn = ["p_exceed_acidity", "ex_acidity_eq_ha_yr_p05", "ex_acidity_eq_ha_yr_p95",
-             "p_exceed_nutrient_n", "ex_nutrient_n_eq_ha_yr_p05", "ex_nutrient_n_eq_ha_yr_p95"]
-    if all(c in span for c in drawn):
-        out.append("<p>With the Monte Carlo (section Uncertainty): p is the share of the "
-                   "draws of the S and N totals whose exceedance is above 0, and 5 % / 95 % "
-                   "the quantiles of each exceedance over the same draws (each column its "
-                   "own quantile; the critical loads are taken as exact, so p leaves out "
-                   "their uncertainty). On a partial deposition (a lower bound) a p or a "
-                   "quantile above 0 is at least that, and a 0 is not determined (empty). "
-                   "p carries a Monte Carlo error of about sqrt(p (1 - p) / draws).</p>")
-        cols = cols[:-2] + drawn + cols[-2:]
-    table = _table_html(span[cols])
-    out.append(fold(table, len(span), "the exceedance of every site and receptor")
-               if network else table)
-    return out
-
-
-def _trend_html(result, study, first, max_sites=MAX_SITE_FIGURES, network=False) -> tuple:
-    """Sen slopes of the annual S and N totals on each site's own surface, with a figure
-    each for the first `max_sites` sites (trends.csv has every component, the monthly
-    tests and the notes)."""
-    import plotly.io as pio
-    from .analysis.trends import MIN_YEARS, change_notes, trend_table
-    from .tables import budget_table
-    from .ui.figures_analysis import trend_figure
-    t = budget_table(result.years, lean=True)
-    cat = study.catalogue()
-    own = {s.id: s.land_use for s in cat}
-    tot = t[(t["pathway"] == "total") & (t["species"] == "all")
-            & (t["receptor"] == t["site"].map(own))]
-    out = ["<h2>Trends of the annual totals (Mann-Kendall, Sen slope)</h2>",
-           f"<p>A trend is valid with at least {MIN_YEARS} complete years; the band is the "
-           "95 % confidence interval of the slope. The slope in % per yr is relative to "
-           "the median of the years used (the Sen line's level in the middle of the "
-           "series), not to the first year; where that median is 0 or a value is below 0 "
-           "there is no percent, and the note says why. The test takes every year's total "
-           "as computed, filled years included; trends.csv has it also without the filled "
-           "years, every component, the seasonal Kendall test on monthly values and the "
-           "notes.</p>"]
-    tr = trend_table(tot, changes=change_notes(cat, study.inputs))
-    if tr.empty:
-        return out + ["<p>No annual totals.</p>"], first
-    tr = tr[tr["values"] == "all"]
-    # a sentence's words, not Python's True/False; the rows shown are all of the
-    # "values: all" variant, which the paragraph above says: the note keeps the reasons
-    tr = tr.assign(valid=tr["valid"].map({True: "yes", False: "no"}).fillna("–"),
-                   note=tr["note"].str.replace(r"^values: all(; |$)", "", regex=True))
-    table = _table_html(tr[["site", "receptor", "element", "n_years", "tau", "p_value",
-                            "sen_slope_per_yr", "sen_slope_pct_per_yr", "valid", "note"]])
-    if network:       # the slopes are in the table of the sites; one figure per site
-        return out + ["<p>Each site's slopes are in the table of the sites at the top; "   # no
-                      "per-site trend figures in a network report.</p>",
-                      fold(table, len(tr), "the trend test of every site")], first
-    out.append(table)
-    sites = list(dict.fromkeys(tot["site"]))
-    shown = set(sites[:max_sites])
-    out.append(_figures_limited(len(sites), len(shown), "Trend figures are"))
-    for (site, el), g in tot.groupby(["site", "element"], sort=False):
-        if site not in shown:
-            continue
-        row = tr[(tr["site"] == site) & (tr["element"] == el)]
-        g = g.sort_values("period_start")
-        fig = trend_figure(g["period_start"].dt.year, g["flux_kg_ha_yr"],
-                           row.iloc[0].to_dict() if len(row) else None, g["status"].to_numpy(),
-                           f"{el} total · {site} · {own.get(site, '')}", "kg/ha/yr")
-        out.append(pio.to_html(fig, include_plotlyjs="inline" if first else False,
-                               full_html=False))
-        first = False
-    return out, first
-
-
-def scheme_title(scheme) -> str:
-    """HTML words for a gas scheme's option value: its published source, then the value
-    the scenario and budget.csv's ``scheme`` column use, e.g. ``Wesely (1989)
-    (<code>gas_scheme = "wesely1989"</code>)``; an unknown value is shown as it is."""
-    import importlib
-
-    from .drydep.gas import SCHEMES
-    key = html.escape(str(scheme))
-    if scheme not in SCHEMES:
-        return key
-    ref = getattr(importlib.import_module(SCHEMES[scheme]), "REFERENCE", "")
-    m = re.match(r".*?\(\d{4}\)", ref)          # the authors and year of the reference
-    return (f"{html.escape(m.group(0))} (<code>gas_scheme = \"{key}\"</code>)" if m
-            else key)
-
-
-#: The bracket columns of the report's table that a bracket note explains.
-_BRACKET_COLUMN = {"all_gas": "dry_N_all_gas_kg_ha", "all_particle": "dry_N_all_particle_kg_ha"}
-
-
-def _bracket_notes_html(budget, frame: pd.DataFrame) -> str:
-    """A list of the reasons of the bracket table's rows (budget.nc's ``bracket_*_note``):
-    which column, which sites and receptors, which periods, why (e.g. a particle bracket of
-    0 at a bulk-collector site, its pair counted in the wet deposition). Empty when no row
-    of `frame` has a note."""
-    names = [v for v in budget.data_vars if v.startswith("bracket_") and v.endswith("_note")]
-    if not names or frame.empty:
-        return ""
-    notes = budget[names].to_dataframe().reset_index()
-    notes = frame[["site", "receptor", "period"]].merge(notes, on=["site", "receptor", "period"],
-                                                         how="inner")
-    long = notes.melt(id_vars=["site", "receptor", "period"], value_vars=names,
-                      var_name="var", value_name="note")
-    long = long[long["note"].fillna("").astype(str).str.strip() != ""]
-    if long.empty:
-        return ""
-    # bracket_nitrate_all_particle_note -> the table's column dry_N_all_particle_kg_ha
-    long["column"] = long["var"].str.extract(r"_(all_gas|all_particle)_note$")[0].map(
-        _BRACKET_COLUMN)
-    n_periods = frame.groupby(["site", "receptor"])["period"].nunique()
-    items = []
-    for (col, note), g in long.groupby(["column", "note"], sort=False):
-        where = []
-        for (site, rec), h in g.groupby(["site", "receptor"], sort=False):
-            periods = sorted(set(map(str, h["period"])))
-            when = ("every period" if len(periods) == n_periods.get((site, rec), -1)
-                    else ", ".join(periods))
-            where.append(f"{site} · {rec} ({when})")
-        items.append(f"<li><b>{html.escape(COLUMN_LABELS.get(col, col))}</b> "
-                     f"(<code>{html.escape(col)}</code>) at {html.escape('; '.join(where))}: "
-                     f"{html.escape(note)}</li>")
-    return ("<p>Why a bracket is 0 or shown as – in the table above (budget.nc's "
-            "bracket_*_note):</p><ul>" + "".join(items) + "</ul>")
-
-
-def _settings_html(result, all_schemes) -> str:
-    """The choices a reader must know before reading any number: gas scheme, NH3."""
-    dry = result.options.get("dry")
-    scheme = getattr(dry, "gas_scheme", "?")
-    nh3 = getattr(dry, "nh3_treatment", "deposition_only")
-    text = f"<b>Gas scheme:</b> {scheme_title(scheme)}"
-    if all_schemes is not None:
-        others = [scheme_title(s) for s in dict.fromkeys(all_schemes["scheme"]) if s != scheme]
-        text += (f" (the tables below); also computed: {', '.join(others)}, "
-                 "see <a href='#schemes'>Gas scheme comparison</a>")
-    text += ". <b>NH3:</b> " + (
-        "net exchange (canopy compensation point; an emission is negative), with the "
-        "deposition-only figure beside it in <a href='#nh3'>NH3 net exchange</a>"
-        if nh3 == "bidirectional" else "deposition only (no emission from the canopy)")
-    return f"<p class='settings'>{text}.</p>"
-
-
-def _schemes_html(all_schemes, network=False) -> list:
-    """Whole-span S and N totals under each gas scheme, side by side (folded when long
-    in the `network` layout)."""
-    if all_schemes is None:
-        return []
-    t = all_schemes
-    span = t[(t["species"] == "all") & (t["pathway"] == "total") & (t["period"] == "span")]
-    key = ["site", "receptor", "element"]
-    names = list(dict.fromkeys(t["scheme"]))
-    rows = pd.MultiIndex.from_frame(span[key].drop_duplicates())   # the pairs that exist
-    wide = span.set_index(key + ["scheme"])["flux_kg_ha_yr"].unstack("scheme") \
-        .reindex(index=rows, columns=names)
-    stat = span.set_index(key + ["scheme"])["status"].unstack("scheme") \
-        .reindex(index=rows, columns=names)
-    out = pd.DataFrame(index=wide.index)
-    for n in names:
-        out[f"{n} [kg/ha/yr]"] = wide[n]
-        out[f"{n} status"] = stat[n].fillna("missing")
-    if len(names) > 1:
-        # a percent of the first scheme's total only where it is above 0 (a total of 0
-        # read "inf", one below 0 had its sign flipped); the reason where there is none
-        a, b = wide[names[0]].to_numpy(float), wide[names[1]].to_numpy(float)
-        out[f"{names[1]} - {names[0]} [%]"] = percent_change(a, b)
-        why = no_percent_reason(a, b, f"the total under {names[0]}",
-                                f"the total under {names[1]}")
-        if any(why):
-            out["percent note"] = why
-    return ["<h2 id='schemes'>Gas scheme comparison: whole-span totals [kg/ha/yr of S or N]</h2>",
-            "<p>The same inputs under each gas scheme: the difference is a structural "
-            "uncertainty of dry deposition (two published schemes, both defensible). "
-            "budget.csv has every row of every scheme (column <code>scheme</code>); "
-            "summary.csv, budget.nc and the rest of this report are the chosen scheme's.</p>",
-            fold(_table_html(out.reset_index()), len(out), "every site and receptor")
-            if network else _table_html(out.reset_index())]
-
-
-def _nh3_html(result, network=False) -> list:
-    """NH3 net exchange beside the deposition-only figure, per period (bidirectional;
-    folded when long in the `network` layout)."""
-    t = result.table
-    if "nh3_deposition_only_kg_ha" not in t:
-        return []
-    rows = t[(t["species"] == "NH3") & (t["period"] != "span")]
-    if rows.empty or not (rows.get("nh3_figure") == "net").any():
-        return []
-    cols = ["site", "receptor", "period", "flux_kg_ha", "nh3_deposition_only_kg_ha",
-            "status", "note"]
-    frame = rows[cols]
-    heads = {"flux_kg_ha": "NH3 net [kg N/ha]"}
-    return ["<h2 id='nh3'>NH3 net exchange beside deposition only [kg N/ha per period]</h2>",
-            "<p>The N totals above use the net (negative: the canopy emits). A period whose "
-            "net is an emission while its deposition-only figure is a deposition is "
-            "<b>flagged</b> (<code>nh3_net_emission</code>): its total N is not "
-            "deposition-only.</p>", fold(_table_html(frame, labels=heads), len(frame),
-                                         "every period")
-            if network else _table_html(frame, labels=heads)]
 
 
 def _shown_files(frame: pd.DataFrame, base) -> pd.DataFrame:
