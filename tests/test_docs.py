@@ -482,3 +482,27 @@ def test_settings_named_in_docs_load(section, setting, tmp_path):
         body += '[budget]\nbulk_correction = "exclude_particles"\n'
     path.write_text(body + f"[{section}]\n{setting}\n")
     load_scenario(path)
+
+
+def test_scenario_example_passes_the_bulk_check_on_the_demo(tmp_path):
+    """The first example of docs/scenario.md names the demo's four input files: copied
+    beside them it must not stop `workbench check` at the demo's bulk collector (mere:
+    `[budget] bulk_correction` is required there). The refusal is the preflight's own,
+    on the demo's catalogue and air, without reading the met."""
+    from types import SimpleNamespace
+
+    from workbench.io.samples import read_air
+    from workbench.io.sites import read_sites
+    from workbench.preflight import _bulk_refusal
+    block = _blocks((ROOT / "docs" / "scenario.md").read_text(), ("toml",))[0]
+    demo = ROOT / "demo_data"
+    for name in ("sites.toml", "precipitation.csv", "air.csv", "met.csv.gz"):
+        assert f'"{name}"' in block, name
+        (tmp_path / name).symlink_to(demo / name)
+    (tmp_path / "scenario.toml").write_text(block)
+    scenario = load_scenario(tmp_path / "scenario.toml")
+    catalogue = read_sites(demo / "sites.toml")
+    air = read_air(demo / "air.csv", catalogue)
+    air = air[0] if isinstance(air, tuple) else air
+    _bulk_refusal(SimpleNamespace(inputs=SimpleNamespace(air=air, met=True)), scenario,
+                  catalogue)
