@@ -519,6 +519,30 @@ def test_demo_wet_dry_split_table_is_current(demo_run):
     assert abs(by_hand - float(m.group(3))) <= 0.0051, by_hand
     assert abs(flux[("ridge", "conifer_forest", "S", "wet")] - float(m.group(4))) <= 0.0051
 
+
+def test_demo_pair_rule_table_is_current(demo_run):
+    """docs/budget.md, the table "Demo 2021, main dry N ... before and after this rule":
+    its "measured" column is the 2021 dry N of budget.csv, its "after" columns the
+    all-gas and all-particle brackets of summary.csv [kg N/ha/yr], each to its 0.01."""
+    text = (ROOT / "docs" / "budget.md").read_text()
+    part = text.split("Demo 2021, main dry N [kg N/ha/yr] before")[1].split("## Bulk")[0]
+    rows = [r.strip().strip("|").split("|") for r in part.splitlines()
+            if r.startswith("| ") and not r.startswith("| site")]
+    assert len(rows) == 6
+    s = pd.read_csv(demo_run / "summary.csv")
+    s = s[s["period"].astype(str) == "2021"].set_index(["site", "receptor"])
+    t = pd.read_csv(demo_run / "budget.csv")
+    dry = t[(t["period"].astype(str) == "2021") & (t["species"] == "all")
+            & (t["element"] == "N") & (t["pathway"] == "dry")]
+    dry = dry.set_index(["site", "receptor"])["flux_kg_ha_yr"]
+    for r in rows:
+        key = tuple(w.strip() for w in r[0].split(","))
+        cells = [float(c.split()[0]) for c in r[1:]]
+        assert abs(dry[key] - cells[0]) <= 0.0051, (key, "measured", dry[key])
+        assert abs(s.loc[key, "dry_N_all_gas_kg_ha"] - cells[2]) <= 0.0051, (key, "all_gas")
+        assert abs(s.loc[key, "dry_N_all_particle_kg_ha"] - cells[4]) <= 0.0051, \
+            (key, "all_particle")
+
 def test_span_rows_say_what_is_missing(demo_run, capsys):
     """A whole-span row whose years are partial names the missing components (demo fell
     and mere: NO2 is not measured there); a complete span row names none; a flagged one
