@@ -109,6 +109,12 @@ def main(argv=None):
     ap.add_argument("--json", default=None)
     args = ap.parse_args(argv)
 
+    from workbench.optional import MissingExtraError, require
+    try:                              # one line naming the extra, before any reading
+        require("numba")
+    except MissingExtraError as exc:
+        raise SystemExit(f"error: {exc}") from None
+
     import reference_chain as rc
     import workbench
     from workbench.drydep import DryOptions, velocities

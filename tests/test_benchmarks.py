@@ -139,6 +139,17 @@ def test_engine_vs_reference_benchmark_runs(tmp_path, capsys):
     assert (tmp_path / "r.json").exists()
 
 
+
+def test_engine_vs_reference_without_numba_names_the_extra(monkeypatch):
+    """Without the `bench` extra the script stops with one line naming it (it raised
+    ModuleNotFoundError from deep inside reference_chain.py, after reading the met)."""
+    monkeypatch.setitem(sys.modules, "numba", None)       # import numba -> ImportError
+    bench = _load("engine_vs_reference")
+    with pytest.raises(SystemExit) as info:
+        bench.main(["--data", str(ROOT / "no-such-folder"), "--sizes", "1"])
+    assert str(info.value).startswith("error: numba is not installed")
+    assert 'deposition-workbench[bench]' in str(info.value)
+
 def test_network_generator_and_guard(tmp_path, capsys):
     """Generated inputs carry N invented sites; sizes above --max are reported, not run."""
     import gzip

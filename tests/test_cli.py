@@ -1,5 +1,6 @@
 """Command line and run folder: refusals with their messages, and the demo end to end."""
 import json
+import re
 import shutil
 from pathlib import Path
 
@@ -476,6 +477,71 @@ def test_demo_totals_lie_in_published_ranges_and_the_doc_table_is_current(demo_r
         assert abs(m["N_total_kg_ha_yr"] - n) <= 0.051, (key, m["N_total_kg_ha_yr"])
         assert abs(m["pH_pwm"] - ph) <= 0.0051, (key, m["pH_pwm"])
 
+
+
+def _split_table(text):
+    """The wet/dry split table of docs/budget.md: (site, receptor) -> its cells."""
+    part = text.split("## How the demo compares with published ranges: the wet/dry split")[1]
+    rows = [r.strip().strip("|").split("|") for r in part.splitlines()
+            if r.startswith("| ") and not r.startswith("| site")]
+    return {tuple(r[0].split()): [c.strip() for c in r[1:]] for r in rows[:10]}
+
+
+def test_demo_wet_dry_split_table_is_current(demo_run):
+    """docs/budget.md, "the wet/dry split": every S and N wet, dry and total of the
+    table is the span row of the demo's budget.csv [kg/ha/yr] to its 0.1, every dry
+    share to its 1 %, and the "wet S by hand" numbers are the ridge's (precipitation_
+    annual.csv: mean nss-SO4 PWM [umol/L] and mean depth [mm]) to their last digit."""
+    t = pd.read_csv(demo_run / "budget.csv")
+    span = t[(t["period"] == "span") & (t["species"] == "all")]
+    flux = span.set_index(["site", "receptor", "element", "pathway"])["flux_kg_ha_yr"]
+    text = (ROOT / "docs" / "budget.md").read_text()
+    doc = _split_table(text)
+    assert set(doc) == {k[:2] for k in flux.index}
+    for (site, rec), cells in doc.items():
+        for element, cols in (("S", cells[:4]), ("N", cells[4:8])):
+            f = {w: flux[(site, rec, element, w)] for w in ("wet", "dry", "total")}
+            for w, cell in zip(("wet", "dry", "total"), cols):
+                assert abs(f[w] - float(cell)) <= 0.051, (site, rec, element, w, f[w])
+            share = 100 * f["dry"] / f["total"]
+            assert abs(share - float(cols[3].split("%")[0])) <= 0.51, (site, rec, element, share)
+    annual = pd.read_csv(demo_run / "precipitation_annual.csv")
+    ridge = annual[(annual["site"] == "ridge")
+                   & annual["period"].astype(str).str.fullmatch(r"\d{4}")]
+    pwm = (ridge["pwm_nssSO4_ueq_l"] / 2).mean()            # ueq/L of SO4(2-) -> umol/L
+    depth = ridge["precipitation_mm"].mean()
+    by_hand = pwm * depth * 32.06 * 1e-5      # umol/L x mm x g/mol -> kg S/ha [1e-5]
+    m = re.search(r"nss-SO4 PWM of ([\d.]+)\s+umol/L times its mean ([\d,]+)\s+mm and "
+                  r"32.06 g/mol gives ([\d.]+) kg S/ha/yr, the table's ([\d.]+)", text)
+    assert m, "the 'wet S by hand' sentence of docs/budget.md"
+    assert abs(pwm - float(m.group(1))) <= 0.0051, pwm
+    assert abs(depth - float(m.group(2).replace(",", ""))) <= 0.51, depth
+    assert abs(by_hand - float(m.group(3))) <= 0.0051, by_hand
+    assert abs(flux[("ridge", "conifer_forest", "S", "wet")] - float(m.group(4))) <= 0.0051
+
+
+def test_demo_pair_rule_table_is_current(demo_run):
+    """docs/budget.md, the table "Demo 2021, main dry N ... before and after this rule":
+    its "measured" column is the 2021 dry N of budget.csv, its "after" columns the
+    all-gas and all-particle brackets of summary.csv [kg N/ha/yr], each to its 0.01."""
+    text = (ROOT / "docs" / "budget.md").read_text()
+    part = text.split("Demo 2021, main dry N [kg N/ha/yr] before")[1].split("## Bulk")[0]
+    rows = [r.strip().strip("|").split("|") for r in part.splitlines()
+            if r.startswith("| ") and not r.startswith("| site")]
+    assert len(rows) == 6
+    s = pd.read_csv(demo_run / "summary.csv")
+    s = s[s["period"].astype(str) == "2021"].set_index(["site", "receptor"])
+    t = pd.read_csv(demo_run / "budget.csv")
+    dry = t[(t["period"].astype(str) == "2021") & (t["species"] == "all")
+            & (t["element"] == "N") & (t["pathway"] == "dry")]
+    dry = dry.set_index(["site", "receptor"])["flux_kg_ha_yr"]
+    for r in rows:
+        key = tuple(w.strip() for w in r[0].split(","))
+        cells = [float(c.split()[0]) for c in r[1:]]
+        assert abs(dry[key] - cells[0]) <= 0.0051, (key, "measured", dry[key])
+        assert abs(s.loc[key, "dry_N_all_gas_kg_ha"] - cells[2]) <= 0.0051, (key, "all_gas")
+        assert abs(s.loc[key, "dry_N_all_particle_kg_ha"] - cells[4]) <= 0.0051, \
+            (key, "all_particle")
 
 def test_span_rows_say_what_is_missing(demo_run, capsys):
     """A whole-span row whose years are partial names the missing components (demo fell

@@ -77,6 +77,16 @@ def test_run_folder_csvs_have_the_caution_file(tmp_path, capsys):
     assert "changes.csv" in sidecar_path(table).read_text(encoding="utf-8")
     _check_every_csv(table.parent)
 
+    # a --csv FILE in a folder that does not exist: one line whose advice names --csv
+    # (it said "choose another --out", an option compare does not have), nothing written
+    missing = tmp_path / "no-such-folder" / "changes.csv"
+    assert main(["compare", str(out), str(out), "--csv", str(missing)]) == 2
+    err = capsys.readouterr().err
+    assert "a folder on the way does not exist: create it or choose another --csv" in err
+    assert f"could not write {missing.resolve()}: " in err
+    assert "--out" not in err and "Traceback" not in err
+    assert not missing.parent.exists()
+
 
 def test_sensitivity_folder_csvs_have_the_caution_file(tmp_path):
     from tiny_site import make_tiny

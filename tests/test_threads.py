@@ -182,3 +182,19 @@ def test_map_ordered_off_the_main_thread_runs_in_the_caller(monkeypatch):
     t.start()
     t.join()
     assert got["r"] == [(i, "not-main") for i in range(4)]
+
+
+def test_bad_environment_value_is_one_line_on_the_command_line(monkeypatch, tmp_path, capsys):
+    """`WORKBENCH_THREADS=two workbench run ...` stops with one line (exit 2)
+    (docs/engine.md names the variable). Before, its ValueError was taken by the fast met
+    reader for a file it could not read (the slow line reader read the met instead,
+    silently: this tiny run ended well) and came out later as a traceback (the demo)."""
+    import test_budget as tb
+    from workbench.cli import main
+    scenario = tb._write(tmp_path)
+    monkeypatch.setenv(T.ENV_VAR, "two")
+    assert main(["run", str(scenario), "--out", str(tmp_path / "run"), "--quiet"]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith(f"error: environment variable {T.ENV_VAR}='two'")
+    assert "expected a positive integer number of threads" in err
+    assert "Traceback" not in err and not (tmp_path / "run").exists()

@@ -21,10 +21,15 @@ def cmd_compare(args) -> int:
                      rows=None if args.all else args.rows)
     print(c.text())
     if args.csv is not None:
-        from .runfolder import atomic_write
         from .csvcaution import write_sidecar_caution
-        atomic_write(Path(args.csv), lambda tmp: c.budget.to_csv(tmp, index=False))
-        side = write_sidecar_caution(Path(args.csv), atomic_write)
+        from .runfolder import OutputError, atomic_write, os_error_message
+        try:
+            atomic_write(Path(args.csv), lambda tmp: c.budget.to_csv(tmp, index=False))
+            side = write_sidecar_caution(Path(args.csv), atomic_write)
+        except OSError as exc:        # the file asked for (not its temporary sibling),
+            bare = OSError(exc.errno, exc.strerror)   # and advice that names --csv
+            raise OutputError(os_error_message(bare, Path(args.csv).resolve(),
+                                               option="--csv")) from exc
         what = "total" if "file" not in c.budget else "number"
         print(f"every differing {what}: {Path(args.csv).resolve()} (caution: {side.name})")
     return 0 if c.same else 1

@@ -16,6 +16,7 @@ EXTRAS = {
     "dask": ("scale", "chunked (lazy) met records"),
     "dask.array": ("scale", "chunked (lazy) met records"),
     "distributed": ("scale", "running on a dask cluster"),
+    "numba": ("bench", "the compiled reference kernel of benchmarks/engine_vs_reference.py"),
 }
 
 

@@ -50,8 +50,9 @@ _HINTS = {
 }
 
 
-def os_error_message(exc: OSError, path=None, what="write") -> str:
-    """One line for an OS error: the path, what happened and what to do.
+def os_error_message(exc: OSError, path=None, what="write", option="--out") -> str:
+    """One line for an OS error: the path, what happened and what to do (`option`: the
+    command-line option that names the path, in the advice).
 
     >>> import errno
     >>> os_error_message(OSError(errno.ENOSPC, "No space left on device"), "/data/run/budget.nc")
@@ -63,6 +64,8 @@ def os_error_message(exc: OSError, path=None, what="write") -> str:
     if code:
         text += f" [{code}]"
     hint = _HINTS.get(exc.errno)
+    if hint and option != "--out":
+        hint = hint.replace("--out", option)
     return text + (f"; {hint}" if hint else "")
 
 

@@ -85,9 +85,11 @@ def _from_env() -> int | None:
         n = int(text)
     except ValueError:
         n = 0
-    if n < 1:
-        raise ValueError(f"environment variable {ENV_VAR}={text!r}: expected a positive "
-                         "integer number of threads")
+    if n < 1:           # an InputError (a ValueError): one line on the command line
+        from .errors import InputError
+        raise InputError(f"environment variable {ENV_VAR}={text!r}",
+                         expected="a positive integer number of threads (unset: the "
+                         "usable cores, at most 4)")
     return n
 
 

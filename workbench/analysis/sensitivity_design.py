@@ -134,6 +134,8 @@ def design_lines(d: dict) -> list:
            f"tornado: 2k + 1 = {d['tornado_evaluations']} evaluations "
            f"({runs(d['tornado_engine_runs'])}), each factor at the low and high end of its "
            "range (not percentiles: a uniform range's 0 % and 100 %), the others at their base",
+           "varied (uniform ranges): " + ", ".join(f"{n} {range_text(n, f['range'])}"
+                                                   for n, f in d["factors"].items()),
            "not varied: " + "; ".join(d["not_varied"])]
     if d.get("too_few_samples"):
         out.insert(0, "caution: " + d["too_few_samples"])
