@@ -155,14 +155,8 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
             idx = np.flatnonzero(failing)                # only the failing samples
             for trial in _concentration_trials(units, eqs):
                 scale = trial[0]
-                c2, a2 = cations[idx].copy(), anions[idx].copy()
-                for ion, f in scale.items():
-                    extra = (f - 1.0) * np.nan_to_num(eqs[ion][idx])
-                    if ion in qa.BALANCE_CATIONS:
-                        c2 += extra
-                    else:
-                        a2 += extra
-                _, fail2, _ = _ib_fail(c2, a2, options)
+                _, fail2, _ = _ib_fail(*_rescaled_sums(eqs, cations, anions, scale, idx),
+                                       options)
                 mended = int((~fail2).sum())
                 if mended <= SHARE * k or (best is not None and mended < best[0]):
                     continue
@@ -180,7 +174,8 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
                 notes.append(f"{file_name}: {subject} at {site}: {k_all} of {n_eval} samples "
                              f"fail the ion balance, {share} with {side}; {looks} ({read_as}, "
                              f"{mended} of the {k} pass)")
-    notes += _conductivity_notes(samples, units, file_name, eqs, noted_ib, options)
+    notes += _conductivity_notes(samples, units, file_name, eqs, cations, anions,
+                                  noted_ib, options)
     # capture ratio: the gauge or the sample depth in another length unit
     if "gauge_depth" in samples and "sample_depth" in samples:
         gauge = np.where(_gauge_ok(samples), samples["gauge_depth"].values.astype(float), np.nan)
@@ -276,16 +271,30 @@ def _conductivity_check(samples, options):
     return check
 
 
+def _rescaled_sums(eqs, cations, anions, scale, idx):
+    """Cation and anion sums [ueq/L] of the samples `idx` with the ions of `scale` read
+    times their factors."""
+    c2, a2 = cations[idx].copy(), anions[idx].copy()
+    for ion, f in scale.items():
+        extra = (f - 1.0) * np.nan_to_num(eqs[ion][idx])
+        if ion in qa.BALANCE_CATIONS:
+            c2 += extra
+        else:
+            a2 += extra
+    return c2, a2
+
+
 def _scaled(eqs: dict, scale: dict) -> dict:
     """The equivalents with the ions of `scale` multiplied by their factors."""
     return {ion: (v * scale[ion] if ion in scale else v) for ion, v in eqs.items()}
 
 
-def _conductivity_notes(samples, units, file_name, eqs, noted, options) -> list[str]:
+def _conductivity_notes(samples, units, file_name, eqs, cations, anions, noted,
+                        options) -> list[str]:
     """Notes on sites where more than :data:`SHARE` of the samples with a measured
     conductivity fail the conductivity check in one direction and a reading of
     :func:`_concentration_trials` brings more than :data:`SHARE` of them back into its
-    band: the check sees a slip that leaves the ion balance intact (every ion column in
+    band with their ion balance passing: the check sees a slip that leaves the ion balance intact (every ion column in
     ueq/L under mg/L headers scales both sums).  Sites with a note of the ion balance
     (`noted`) are left out; the values are not changed."""
     check = _conductivity_check(samples, options)
@@ -305,9 +314,15 @@ def _conductivity_notes(samples, units, file_name, eqs, noted, options) -> list[
             if k <= SHARE * n_eval:
                 continue
             best = None
+            idx = np.flatnonzero(failing)
             for trial in _concentration_trials(units, eqs):
                 _, fail2, _ = check(_scaled(eqs, trial[0]))
-                mended = int((failing & ~fail2).sum())
+                # mended: passes the conductivity check and, read so, the ion balance
+                # too (reading every ion 20-80 x lower leaves H+ alone to match a
+                # conductivity meter reading low, and breaks the balance)
+                _, ib2, _ = _ib_fail(*_rescaled_sums(eqs, cations, anions, trial[0], idx),
+                                     options)
+                mended = int((~fail2[idx] & ~ib2).sum())
                 if mended > SHARE * k and (best is None or mended > best[0]):
                     best = (mended, trial)
             if best is not None:
