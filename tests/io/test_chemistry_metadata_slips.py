@@ -1,6 +1,6 @@
-"""Metadata slips of a third field-data audit (docs/data_formats.md, "Field-data slips
-we check"): a catalogue elevation written in feet, seen through the met's station
-pressure.  Invented sites (tests/tiny_inputs.py)."""
+"""Slips of a third field-data audit (docs/data_formats.md, "Field-data slips we check"):
+a catalogue elevation written in feet, seen through the met's station pressure; a
+precipitation column holding a cumulative counter.  Invented sites (tests/tiny_inputs.py)."""
 import numpy as np
 import pytest
 
@@ -60,3 +60,31 @@ def test_sea_level_pressure_is_not_called_feet(tmp_path, elevation):
     reasons = _reasons(led)
     assert "pressure looks reduced to sea level, not station pressure (kept)" in reasons
     assert not [r for r in reasons if "feet" in r], reasons
+
+
+def _rain(n_hours):
+    """An hourly record of showers: 1.2 mm every 17th hour, 0 otherwise [mm]."""
+    return np.where(np.arange(n_hours) % 17 == 0, 1.2, 0.0)
+
+
+def test_a_cumulative_counter_is_named(tmp_path, cat):
+    """The gauge's running total written as the hourly precipitation: masked, and the
+    reason names the counter (before: 'a column shifted or swapped?')."""
+    total = np.round(np.cumsum(_rain(24 * 31)) + 310.4, 1)      # a counter never reset
+    met, led = read_met(_met(tmp_path, n_days=31, **{"precipitation [mm]": total}), cat)
+    assert np.isnan(met["precipitation"]).all()
+    reasons = [r for r in _reasons(led) if "precipitation" in r]
+    assert len(reasons) == 1, reasons
+    assert "not an hourly precipitation (a cumulative counter? it never falls at 100% of " \
+           "this site's consecutive hours: write each hour's amount, the difference of " \
+           "consecutive readings), expected 0 at most hours (masked)" in reasons[0], reasons
+
+
+def test_another_column_in_the_precipitation_is_not_called_a_counter(tmp_path, cat):
+    """False alarm: a column of another variable (a relative humidity pasted one column
+    off) rises and falls: the reason stays 'a column shifted or swapped?'."""
+    rh = 70 + 20 * np.sin(np.arange(24 * 31) * 2 * np.pi / 24)
+    met, led = read_met(_met(tmp_path, n_days=31, **{"precipitation [mm]": np.round(rh, 1)}),
+                        cat)
+    reasons = [r for r in _reasons(led) if "precipitation" in r]
+    assert len(reasons) == 1 and "(a column shifted or swapped?)" in reasons[0], reasons
