@@ -364,3 +364,29 @@ def test_docs_carry_the_factors_table():
     assert factors_table() in doc
     lo, hi, _ = BALANCE_BAND
     assert f"The band is {lo:g}-{hi:g}" in doc
+
+
+# ------------------------------------------------- several particle columns as S and N
+@pytest.mark.parametrize("columns,names", [
+    (("pSO4", "pNO3"), "pSO4 and pNO3"),
+    (("pSO4", "pNO3", "pNH4"), "pSO4, pNO3 and pNH4")])
+def test_a_laboratory_reporting_as_s_and_n_is_named(tmp_path, demo_cat, columns, names):
+    """Every particle ion (or the two anions) of ridge's filter pack as ug S/m3 and
+    ug N/m3 under species headers. One column read back mends too few: before, no
+    note at all for the two anions."""
+    factor = {"pSO4": 1 / SO4_S, "pNO3": 1 / NO3_N, "pNH4": 1 / NH4_N}
+    rows = RIDGE
+    for sp in columns:
+        rows = _scaled(HEAD, rows, f"{sp} [ug/m3]", factor[sp])
+    notes = [n for n in _notes(tmp_path, demo_cat, HEAD, rows) if "ammonium-to-anion" in n]
+    assert len(notes) == 1, notes
+    assert notes[0].startswith(f"a.csv: {names} at ridge, sampler RDG-F1: "), notes
+    assert "(a laboratory reporting the ions as S and N?)" in notes[0], notes
+    assert f"pSO4 {SO4_S:.4g}, pNO3 {NO3_N:.4g}" in notes[0], notes
+
+
+def test_one_particle_column_as_element_is_still_named_alone(tmp_path, demo_cat):
+    """The several-column reading does not take the place of a one-column slip."""
+    rows = _scaled(HEAD, RIDGE, "pNO3 [ug/m3]", 1 / NO3_N)
+    notes = [n for n in _notes(tmp_path, demo_cat, HEAD, rows) if "ammonium-to-anion" in n]
+    assert len(notes) == 1 and notes[0].startswith("a.csv: pNO3 at ridge"), notes

@@ -271,3 +271,35 @@ def test_summer_offset_all_year_is_named(tmp_path, demo_cat, ridge_rows):
     assert "summer half (April-September, " in notes[0] and ") +0.0 h, winter half (" in notes[0]
     assert "set utc_offset_h = 0 (standard time) in sites.toml" in notes[0]
     assert "e.g. 2021-01-15T13:00+00:00" in notes[0]
+
+
+@pytest.mark.parametrize("zone,lag", [("Z", 1), ("+00:00", 1), ("+02:00", -1)])
+def test_zoned_labels_on_another_clock_are_named(tmp_path, demo_cat, ridge_rows, met_reader,
+                                                 zone, lag):
+    """ridge's logger keeps UTC+1 (its utc_offset_h) and an export writes its labels with
+    a zone it did not keep ('Z' or +00:00: read 1 h late; +02:00: 1 h early). The note
+    names the zone, not utc_offset_h, which does not move a zoned label. Before: 'Labels
+    in local time of UTC+2 while utc_offset_h = 1 (if so, set utc_offset_h = 2 ...)',
+    a change that would not move these labels at all. Both CSV readers."""
+    df = ridge_rows.copy()
+    df["time"] = df["time"] + zone
+    _, led = met_reader(_write(tmp_path, df), demo_cat)
+    notes = _clock_notes(led)
+    assert len(notes) == 1, notes
+    way = "late" if lag > 0 else "early"
+    assert f"lag {lag:+.1f} h" in notes[0], notes
+    assert (f"the whole record sits 1 h {way} against the zone its labels carry "
+            f"(utc_offset_h does not move a zoned label)") in notes[0], notes
+    assert ("Labels written with a zone the logger did not keep: its clock runs "
+            f"{lag:+d} h from the zone written (with 'Z': a logger kept at UTC{lag:+d}"
+            ) in notes[0], notes
+    assert "write the labels without the zone (naive labels take utc_offset_h = 1)" in notes[0]
+    assert "set utc_offset_h" not in notes[0], notes
+
+
+def test_zoned_labels_on_their_clock_raise_no_note(tmp_path, demo_cat, ridge_rows, met_reader):
+    """False alarm: the labels with the zone the logger kept (+01:00) are on time."""
+    df = ridge_rows.copy()
+    df["time"] = df["time"] + "+01:00"
+    _, led = met_reader(_write(tmp_path, df), demo_cat)
+    assert _clock_notes(led) == []

@@ -128,7 +128,8 @@ def read_met(path, catalogue):
                                           np.full(int(drop.sum()), REPEAT_REASON, object),
                                           np.ones(int(drop.sum()), bool))
         ledger.notes.append(repeat_note(tab, tab.lines[drop], tab.lines[of_row[drop]]))
-    add_clock_notes(ds, ledger, catalogue, tab.path)      # after the gap notes
+    add_clock_notes(ds, ledger, catalogue, tab.path,      # after the gap notes
+                    zoned_sites=set(sites[tab.zoned["time"]]))
     pos = pd.Index(list(catalogue.ids)).get_indexer(sites)
     ledger.notes[:0] = methours.move_notes(      # one per site whose hours were moved
         list(catalogue.ids), catalogue.utc_offsets(list(catalogue.ids)),

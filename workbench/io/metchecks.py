@@ -35,7 +35,8 @@ from .metgaps import (CLOCK_FORWARD_MAX_PER_YEAR, CLOCK_FORWARD_MONTHS,  # noqa:
 from .metgauge import (DEPTH_SLIPS, SLIP_MIN_SAMPLES, SLIP_RTOL, SLIP_SHARE,  # noqa: F401
                        gauge_comparison, gauge_slip_notes)
 # the ranges, thresholds and codes (defined here before)
-from .metlimits import (CELSIUS_AS_F_ELEVATION, CELSIUS_AS_F_LATITUDE,  # noqa: F401
+from .metlimits import (FOOT_M, PRESSURE_RTOL, elevation_feet_reason,  # noqa: F401
+                        CELSIUS_AS_F_ELEVATION, CELSIUS_AS_F_LATITUDE,  # noqa: F401
                         CELSIUS_AS_F_MAX, FAHRENHEIT_MEDIAN_MIN, KELVIN_MEDIAN_MIN,
                         KMH_MEDIAN_MIN, MEDIAN_MIN_HOURS, NIGHT_ELEVATION_DEG,
                         NIGHT_RADIATION_MAX, NIGHT_SHARE_HINT, NIGHT_SUN_HINT,
@@ -158,8 +159,17 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
         for c in np.unique(codes[unit_slip]):
             i = int(np.flatnonzero(codes == c)[0])
             mask("pressure", codes == c, pressure_slip_reason(med[i], p_exp[i], elev[i], unit))
-        sea = (~unit_slip & (elev > 200) & (np.abs(med - STANDARD_PRESSURE) < np.abs(med - p_exp))
-               & (np.abs(ratio - 1) > 0.015))
+        # the catalogue's elevation written in feet: the pressure fits the height in m
+        p_feet = expected_station_pressure(elev * FOOT_M)
+        feet = (~unit_slip & (np.abs(ratio - 1) > PRESSURE_RTOL)
+                & (np.abs(med / p_feet - 1) <= PRESSURE_RTOL)
+                & (np.abs(med - p_feet) < np.abs(med - STANDARD_PRESSURE)))
+        for c in np.unique(codes[feet]):
+            i = int(np.flatnonzero(codes == c)[0])
+            flag(codes == c, elevation_feet_reason(med[i], p_exp[i], elev[i]))
+        sea = (~unit_slip & ~feet & (elev > 200)
+               & (np.abs(med - STANDARD_PRESSURE) < np.abs(med - p_exp))
+               & (np.abs(ratio - 1) > PRESSURE_RTOL))
         flag(sea, "pressure looks reduced to sea level, not station pressure (kept)")
     # solar radiation units
     if "solar_radiation" in values:

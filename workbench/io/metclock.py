@@ -242,13 +242,24 @@ def _hours(x) -> str:
     return f"{v if v != 0 else 0.0:+.1f} h"                  # no "-0.0"
 
 
-def _cause(lag, off, utc_labels=False) -> str:
+def _cause(lag, off, utc_labels=False, zoned=False) -> str:
     """The likely causes of a whole-record lag `lag` [h] at a site of ``utc_offset_h``
     `off` [h], and what to write [text]; `utc_labels`: the file's times are read as UTC
-    (NetCDF, zarr), not at ``utc_offset_h``."""
+    (NetCDF, zarr), not at ``utc_offset_h``; `zoned`: the site's CSV labels carry their
+    zone (``Z``, ``+01:00``), so ``utc_offset_h`` does not move them."""
     n = int(np.rint(lag))
     way = "late" if n > 0 else "early"
-    if utc_labels:
+    if zoned and not utc_labels:
+        plain = (f"the whole record sits {abs(n)} h {way} against the zone its labels "
+                 f"carry (utc_offset_h does not move a zoned label): every column on the "
+                 f"logger's clock is read {abs(n)} h {way}")
+        local = (f"labels written with a zone the logger did not keep: its clock runs "
+                 f"{n:+g} h from the zone written (with 'Z': a logger kept at UTC{n:+g}"
+                 + (", the site's utc_offset_h" if n == off else "")
+                 + f")? If so, write the labels without the zone (naive labels take "
+                 f"utc_offset_h = {off:g}) where the logger kept the site's standard time, "
+                 f"or with the zone it kept (with 'Z': 2021-06-01T13:00{_zone(n)})")
+    elif utc_labels:
         plain = (f"the whole record sits {abs(n)} h {way} against its declared clock (UTC, "
                  f"as NetCDF and zarr times are read): every variable on the logger's clock "
                  f"is read {abs(n)} h {way}")
@@ -326,7 +337,7 @@ def _half_hour(lag) -> str:
 
 
 def notes_from_lags(table, site_ids, catalogue, file_name, utc_labels=False,
-                    coordinate_hints=None) -> list[str]:
+                    coordinate_hints=None, zoned_sites=()) -> list[str]:
     """The ledger notes of :func:`site_lags`'s table [text].
 
     Parameters
@@ -344,6 +355,9 @@ def notes_from_lags(table, site_ids, catalogue, file_name, utc_labels=False,
     coordinate_hints : dict, optional
         site id -> text (:func:`coordinate_hints`) added to the site's whole-record note:
         its coordinates typed wrong explain the lag too.
+    zoned_sites : collection of str, optional
+        Sites of a CSV file whose labels carry their zone: a whole-hour lag is named as
+        a zone the logger did not keep (a 'Z' on local time), not as ``utc_offset_h``.
 
     Returns
     -------
@@ -391,7 +405,7 @@ def notes_from_lags(table, site_ids, catalogue, file_name, utc_labels=False,
             by_year = (f"; it changes between years ({each}): a logger clock reset or "
                        f"drifting?" if apart else "")
             coords = (coordinate_hints or {}).get(site, "")
-            notes.append(f"{head}: lag {_hours(whole)} ({seen}): {_cause(whole, off, utc_labels)}"
+            notes.append(f"{head}: lag {_hours(whole)} ({seen}): {_cause(whole, off, utc_labels, site in zoned_sites)}"
                          f"{by_year}{coords}{kept}")
         elif apart:
             notes.append(f"{head}: the lag changes between years ({each}): a logger clock "
@@ -408,7 +422,7 @@ GROUP_RECORDS = 400_000
 
 
 def clock_notes(met, catalogue, file_name, group_records=None,
-                utc_labels=False, judged=None) -> list[str]:
+                utc_labels=False, judged=None, zoned_sites=()) -> list[str]:
     """The clock check of a met Dataset: :func:`site_lags`, then :func:`notes_from_lags`.
 
     Parameters
@@ -427,6 +441,8 @@ def clock_notes(met, catalogue, file_name, group_records=None,
     judged : set, optional
         Given: the ids of the sites judged (a whole-record lag of :data:`MIN_SUNNY_DAYS`
         sunny days or more) are added to it.
+    zoned_sites : collection of str, optional
+        As :func:`notes_from_lags`.
 
     Returns
     -------
@@ -448,7 +464,7 @@ def clock_notes(met, catalogue, file_name, group_records=None,
     if judged is not None:
         judged.update(s for s, lag in zip(ids, table["lag"]) if np.isfinite(lag))
     return notes_from_lags(table, ids, catalogue, file_name, utc_labels,
-                           coordinate_hints(met, table, ids, lat, lon))
+                           coordinate_hints(met, table, ids, lat, lon), zoned_sites)
 
 
 def coordinate_hints(met, table, site_ids, latitude, longitude) -> dict:
@@ -507,7 +523,8 @@ def coordinate_hints(met, table, site_ids, latitude, longitude) -> dict:
     return hints
 
 
-def add_clock_notes(met, ledger, catalogue, path, group_records=None) -> None:
+def add_clock_notes(met, ledger, catalogue, path, group_records=None,
+                    zoned_sites=()) -> None:
     """Append :func:`clock_notes` of a met Dataset just read to its ledger's notes (each
     met reader's last step: the CSV readers and the NetCDF/zarr path), and the sites it
     judged to the ledger's ``clock_judged``.
@@ -522,10 +539,12 @@ def add_clock_notes(met, ledger, catalogue, path, group_records=None) -> None:
         The file read (its name heads the notes).
     group_records : int, optional
         As :func:`clock_notes`.
+    zoned_sites : collection of str, optional
+        The sites of a CSV file whose labels carry their zone (:func:`notes_from_lags`).
     """
     from .zarrstore import is_zarr_path
     path = Path(path)
     utc = path.suffix in (".nc", ".nc4", ".netcdf") or is_zarr_path(path)
     ledger.notes.extend(clock_notes(met, catalogue, path.name, group_records, utc,
-                                    ledger.clock_judged))
+                                    ledger.clock_judged, set(zoned_sites)))
 

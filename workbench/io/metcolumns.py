@@ -123,6 +123,27 @@ def site_correlation(codes, n_sites, x, y):
     return np.where((n >= MIN_HOURS) & (sxx > 0) & (syy > 0), r, np.nan)
 
 
+#: Share of a site's consecutive pairs of hours (both read) in which the precipitation
+#: does not fall, at or above which a column above 0 at most hours is named a
+#: cumulative counter [-] (99 %: a counter falls only at a reset or a gap filled
+#: with another value; our choice).
+COUNTER_SHARE = 0.99
+
+
+def _rising_share(values, codes, n_sites, time_end):
+    """Per site, the share of consecutive pairs of its rows (in time order, both
+    finite) in which `values` do not fall [-]; None without times."""
+    if time_end is None:
+        return None
+    order = np.lexsort((np.asarray(time_end), codes))
+    v, c = values[order], codes[order]
+    pair = (c[1:] == c[:-1]) & np.isfinite(v[1:]) & np.isfinite(v[:-1])
+    up = pair & (v[1:] >= v[:-1])
+    n = np.bincount(c[1:][pair], minlength=n_sites)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.bincount(c[1:][up], minlength=n_sites) / n
+
+
 def column_checks(values, codes, n_sites, elevation_deg, raw_headers=None, time_end=None):
     """Judge each site's columns by what their variable must look like.
 
@@ -187,11 +208,17 @@ def column_checks(values, codes, n_sites, elevation_deg, raw_headers=None, time_
         share, n = _site_share(codes, n_sites, pr > 0, ok)
         _, med = _site_stats(codes, n_sites, pr)
         bad = (n >= MIN_HOURS) & (share >= RAIN_HOURS_SHARE) & (med > RAIN_MEDIAN_MM)
+        rising = _rising_share(pr, codes, n_sites, time_end) if bad.any() else None
         for s in np.flatnonzero(bad):
+            cause = ("a cumulative counter? it never falls at "
+                     f"{rising[s]:.0%} of this site's consecutive hours: write each hour's "
+                     "amount, the difference of consecutive readings"
+                     if rising is not None and rising[s] >= COUNTER_SHARE
+                     else "a column shifted or swapped?")
             out.append(("precipitation", codes == s,
                         f"{head('precipitation')} is above 0 at {share[s]:.0%} of this "
                         f"site's hours with a median of {med[s]:.3g} mm: not an hourly "
-                        f"precipitation (a column shifted or swapped?), expected 0 at most "
+                        f"precipitation ({cause}), expected 0 at most "
                         f"hours (masked)"))
     # wind speed holding a direction
     if "wind_speed" in values:

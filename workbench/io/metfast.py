@@ -354,7 +354,8 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour, dr
     if len(again):                           # after the gaps, as the line reader
         ledger.notes.append(repeat_note(SimpleNamespace(path=path), rows.line_of(again),
                                         rows.line_of(of)))
-    add_clock_notes(ds, ledger, catalogue, path, CHECK_ROWS)   # after the gaps, as the line reader
+    add_clock_notes(ds, ledger, catalogue, path, CHECK_ROWS,   # after the gaps, as the line reader
+                    zoned_sites=set(ids[rows.zones.zoned > 0]))
     unknown = [raw_headers[c] for c in raw_headers if c not in set(variables) | {"site", "time"}]
     if unknown:
         ledger.notes.append(unused_note(path.name, unknown))

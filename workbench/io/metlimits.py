@@ -200,6 +200,30 @@ def pressure_slip_reason(median_pa, expected_pa, elevation_m, unit) -> str:
             f"the station pressure (masked)")
 
 
+#: One international foot [m] (exact by definition, international yard and pound
+#: agreement of 1959).
+FOOT_M = 0.3048
+#: Relative distance of a site's median pressure from its expected station pressure
+#: within which it fits [-] (1.5 %, about 125 m of height near sea level; our choice,
+#: above the spread of a long record's median around the standard atmosphere).
+PRESSURE_RTOL = 0.015
+
+
+def elevation_feet_reason(median_pa, expected_pa, elevation_m) -> str:
+    """The reason of a site whose pressure fits its catalogue elevation read in feet
+    [text] (flagged, values kept: the pressure is right, the elevation is not).
+
+    >>> elevation_feet_reason(96.2e3, 86.0e3, 1378.0)[:80]
+    'pressure median 962 hPa, 1.12x the 860 hPa expected at elevation_m = 1378: it f'
+    """
+    m = float(elevation_m) * FOOT_M
+    return (f"pressure median {float(median_pa) / 100:.0f} hPa, "
+            f"{float(median_pa) / float(expected_pa):.3g}x the {float(expected_pa) / 100:.0f} "
+            f"hPa expected at elevation_m = {float(elevation_m):g}: it fits {m:.0f} m, "
+            f"the elevation read in feet ({float(elevation_m):g} ft = {m:.0f} m)? check "
+            f"elevation_m in sites.toml, expected metres (kept)")
+
+
 def expected_station_pressure(elevation_m):
     """Station pressure of the ICAO standard atmosphere at an elevation [Pa]
     (:func:`workbench.surface.air.standard_pressure_at`)."""

@@ -26,7 +26,8 @@ import pandas as pd
 import xarray as xr
 
 from .. import flags as _flags
-from ..units import convert_plain, to_amount
+from .. import species as _species
+from ..units import concentration_kind, convert_plain, to_amount
 from . import qa
 from .options import WetOptions
 from .screening import _flag_table, ion_balance_test, ion_sums
@@ -44,12 +45,15 @@ DEPTH_UNITS = ("mm", "cm", "inch")     # inch: a gauge read in inches (additive,
 RUN_MIN = 3
 
 
-def _factor(unit: str, other: str, species: str | None, basis=None) -> float:
-    """Amount read under `other` divided by the amount read under `unit` (same number)."""
+def _factor(unit: str, other: str, species: str | None, basis=None,
+            other_basis="same") -> float:
+    """Amount read under `other` (on `other_basis`, by default `basis`) divided by the
+    amount read under `unit` on `basis` (the same number)."""
     if species is None:
         return float(convert_plain(np.array([1.0]), other, "mm")[0]
                      / convert_plain(np.array([1.0]), unit, "mm")[0])
-    return float(to_amount(np.array([1.0]), other, species, basis)[0][0]
+    other_basis = basis if other_basis == "same" else other_basis
+    return float(to_amount(np.array([1.0]), other, species, other_basis)[0][0]
                  / to_amount(np.array([1.0]), unit, species, basis)[0][0])
 
 
@@ -135,6 +139,8 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
     notes = []
     eqs, cations, anions = _ion_balance(samples, options)
     evaluated, fail, idiff = _ib_fail(cations, anions, options)
+    noted_ib = set()
+    cond_check = _conductivity_check(samples, options)
     # ion balance: one candidate (ion, unit) per site, the one that mends the most samples
     for site in _suspects(sites, evaluated, fail & (idiff < 0), fail & (idiff > 0)):
         at = sites == site
@@ -146,28 +152,30 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
                 continue
             k_all = int((fail & at).sum())
             best = None
-            for ion, (header, unit, basis) in units.items():
-                if ion not in eqs or ion == "H":
+            idx = np.flatnonzero(failing)                # only the failing samples
+            for trial in _concentration_trials(units, eqs):
+                scale = trial[0]
+                _, fail2, _ = _ib_fail(*_rescaled_sums(eqs, cations, anions, scale, idx),
+                                       options)
+                mended = int((~fail2).sum())
+                if mended <= SHARE * k or (best is not None and mended < best[0]):
                     continue
-                for other in CONCENTRATION_UNITS:
-                    f = _factor(unit, other, ion, basis)
-                    if _same_unit(f):
-                        continue
-                    idx = np.flatnonzero(failing)        # only the failing samples
-                    extra = (f - 1.0) * np.nan_to_num(eqs[ion][idx])
-                    c2, a2 = ((cations[idx] + extra, anions[idx]) if ion in qa.BALANCE_CATIONS
-                              else (cations[idx], anions[idx] + extra))
-                    _, fail2, _ = _ib_fail(c2, a2, options)
-                    mended = int((~fail2).sum())
-                    if mended > SHARE * k and (best is None or mended > best[0]):
-                        best = (mended, ion, header, unit, other)
+                # a tie (umol/L and ueq/L of a file of ions of one charge scale both
+                # sums alike): the reading that passes more of the site's conductivity
+                # checks wins
+                cond = (0 if cond_check is None else
+                        int((at & ~cond_check(_scaled(eqs, scale))[1]).sum()))
+                if best is None or (mended, cond) > best[:2]:
+                    best = (mended, cond, trial)
             if best is not None:
-                mended, ion, header, unit, other = best
+                mended, _, (_, subject, looks, read_as) = best
                 share = "all" if k_all == k else str(k)
-                notes.append(f"{file_name}: {ion} at {site}: {k_all} of {n_eval} samples fail the "
-                             f"ion balance, {share} with {side}; the values look like {other} "
-                             f"under a {unit} header ({header!r}; read as {other}, {mended} of "
-                             f"the {k} pass)")
+                noted_ib.add(site)
+                notes.append(f"{file_name}: {subject} at {site}: {k_all} of {n_eval} samples "
+                             f"fail the ion balance, {share} with {side}; {looks} ({read_as}, "
+                             f"{mended} of the {k} pass)")
+    notes += _conductivity_notes(samples, units, file_name, eqs, cations, anions,
+                                  noted_ib, options)
     # capture ratio: the gauge or the sample depth in another length unit
     if "gauge_depth" in samples and "sample_depth" in samples:
         gauge = np.where(_gauge_ok(samples), samples["gauge_depth"].values.astype(float), np.nan)
@@ -203,6 +211,127 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
                                  f"{k} pass)")
         notes += _depth_run_notes(samples, units, file_name, sample, gauge, ratio, ok,
                                   high, low, noted, options)
+    return notes
+
+
+def _concentration_trials(units: dict, eqs: dict):
+    """The readings of the ion columns tried in place of the headers':
+    ``(scale, subject, looks, read_as)``, `scale` {ion: amount read so / amount read
+    under the header} and three texts for the note.
+
+    Each column in each other unit of :data:`CONCENTRATION_UNITS` (its basis kept);
+    a column of nitrate, ammonium or sulfate in a mass unit on the other basis (the
+    element, ``mg/L as N``, under a header of the ion, or the ion under an ``_as_N``
+    header: factors of the molar masses, 14/62 for nitrate, 14/18 for ammonium, 32/96
+    for sulfate); and every ion column at once in each unit (a file in ueq/L under
+    mg/L headers)."""
+    cols = [(ion, h, u, b) for ion, (h, u, b) in units.items()
+            if ion in eqs and ion not in ("H", "HCO3")]
+    for ion, header, unit, basis in cols:
+        for other in CONCENTRATION_UNITS:
+            f = _factor(unit, other, ion, basis)
+            if not _same_unit(f):
+                yield ({ion: f}, ion, f"the values look like {other} under a {unit} header",
+                       f"{header!r}; read as {other}")
+        element = _species.get(ion).element
+        if element in ("N", "S") and concentration_kind(unit) == "mass_density":
+            other_basis = None if basis else element
+            f = _factor(unit, unit, ion, basis, other_basis)
+            name = (lambda b: f"{ion}" if b is None else f"{b}")
+            yield ({ion: f}, ion,
+                   f"the values look like {unit} as {name(other_basis)} under a header of "
+                   f"{unit} as {name(basis)}",
+                   f"{header!r}; read so, each amount is {f:.3g} x the one read, the ratio "
+                   f"of the molar masses of {name(basis)} and {name(other_basis)}; check "
+                   f"which the laboratory reports")
+    for other in CONCENTRATION_UNITS:
+        scale = {ion: _factor(unit, other, ion, basis) for ion, _, unit, basis in cols}
+        if len(cols) > 1 and not all(_same_unit(f) for f in scale.values()):
+            heads = ", ".join(repr(h) for _, h, _, _ in cols[:3]) + (
+                ", ..." if len(cols) > 3 else "")
+            yield (scale, "every ion column",
+                   f"the values look like {other} under the headers' units",
+                   f"{heads}; read as {other}")
+
+
+def _conductivity_check(samples, options):
+    """The conductivity check as the screening has it, as a function of the
+    equivalents {ion: [ueq/L]}: ``(evaluated, fail, difference [%])``; None without a
+    measured conductivity."""
+    if "conductivity" not in samples:
+        return None
+    k_meas = samples["conductivity"].values.astype(float)
+    lim = qa.tier_limit(k_meas, options.conductivity_tiers)
+
+    def check(e):
+        k_calc = qa.conductivity_calculated(e)
+        cdiff = qa.conductivity_difference(k_calc, k_meas, options.conductivity_difference_basis)
+        ev = np.isfinite(cdiff)
+        return ev, ev & qa.exceeds(np.abs(cdiff), lim), cdiff
+    return check
+
+
+def _rescaled_sums(eqs, cations, anions, scale, idx):
+    """Cation and anion sums [ueq/L] of the samples `idx` with the ions of `scale` read
+    times their factors."""
+    c2, a2 = cations[idx].copy(), anions[idx].copy()
+    for ion, f in scale.items():
+        extra = (f - 1.0) * np.nan_to_num(eqs[ion][idx])
+        if ion in qa.BALANCE_CATIONS:
+            c2 += extra
+        else:
+            a2 += extra
+    return c2, a2
+
+
+def _scaled(eqs: dict, scale: dict) -> dict:
+    """The equivalents with the ions of `scale` multiplied by their factors."""
+    return {ion: (v * scale[ion] if ion in scale else v) for ion, v in eqs.items()}
+
+
+def _conductivity_notes(samples, units, file_name, eqs, cations, anions, noted,
+                        options) -> list[str]:
+    """Notes on sites where more than :data:`SHARE` of the samples with a measured
+    conductivity fail the conductivity check in one direction and a reading of
+    :func:`_concentration_trials` brings more than :data:`SHARE` of them back into its
+    band with their ion balance passing: the check sees a slip that leaves the ion balance intact (every ion column in
+    ueq/L under mg/L headers scales both sums).  Sites with a note of the ion balance
+    (`noted`) are left out; the values are not changed."""
+    check = _conductivity_check(samples, options)
+    if check is None:
+        return []
+    sites = samples["site"].values.astype(str)
+    evaluated, fail, cdiff = check(eqs)
+    notes = []
+    for site in _suspects(sites, evaluated, fail & (cdiff > 0), fail & (cdiff < 0)):
+        if site in noted:
+            continue
+        at = sites == site
+        n_eval = int((evaluated & at).sum())
+        for sign, side in ((1, "high"), (-1, "low")):
+            failing = fail & at & (np.sign(cdiff) == sign)
+            k = int(failing.sum())
+            if k <= SHARE * n_eval:
+                continue
+            best = None
+            idx = np.flatnonzero(failing)
+            for trial in _concentration_trials(units, eqs):
+                _, fail2, _ = check(_scaled(eqs, trial[0]))
+                # mended: passes the conductivity check and, read so, the ion balance
+                # too (reading every ion 20-80 x lower leaves H+ alone to match a
+                # conductivity meter reading low, and breaks the balance)
+                _, ib2, _ = _ib_fail(*_rescaled_sums(eqs, cations, anions, trial[0], idx),
+                                     options)
+                mended = int((~fail2[idx] & ~ib2).sum())
+                if mended > SHARE * k and (best is None or mended > best[0]):
+                    best = (mended, trial)
+            if best is not None:
+                mended, (_, subject, looks, read_as) = best
+                med = float(np.median(cdiff[failing]))
+                notes.append(f"{file_name}: {subject} at {site}: {k} of {n_eval} samples fail "
+                             f"the conductivity check with the conductivity calculated from "
+                             f"the ions {side} (median {med:+.0f} %); {looks} ({read_as}, "
+                             f"{mended} of the {k} pass)")
     return notes
 
 
