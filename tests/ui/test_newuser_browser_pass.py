@@ -120,3 +120,32 @@ def test_a_failed_export_leaves_no_writing_message(tmp_path, monkeypatch):
         control.export()
     assert "not written" in control.message_w.value and "disk full" in control.message_w.value
     assert not control.button_w.disabled
+
+
+def test_the_range_shares_of_the_critical_loads_explorer_are_in_eq():
+    """The critical-loads explorer writes every deposition in eq/ha/yr; its table of the
+    range's shares read "5 % alone [kg N/ha]" (dry N) under "N 1196-5761 eq/ha/yr"
+    (total N), its first row named "every factor (the range shown)"."""
+    import pandas as pd
+    from workbench.ui.range_shares_panel import shares_display
+    s = pd.DataFrame({"site": "s", "receptor": "grass", "period": "2021",
+                      "total": ["N_total", "S_total"], "factor": "all", "part_of": "",
+                      "variance_share": 1.0, "log_variance_share": 1.0, "alone_p05": 1.0,
+                      "alone_p50": 2.0, "alone_p95": 14.007, "unit": "kg ha-1"})
+    n = shares_display(s, "grass", "2021", "N_total", eq=True)
+    # 1 kg N = 1000 / 14.007 mol = 71.39 eq (N: 1 eq per mol; IUPAC atomic weight 14.007)
+    assert n["5 % alone [eq/ha]"].iloc[0] == pytest.approx(1000 / 14.007, rel=1e-3)
+    assert n["95 % alone [eq/ha]"].iloc[0] == pytest.approx(1000, rel=1e-3)
+    # 1 kg S = 1000 / 32.06 mol = 62.38 eq (sulfate: 2 eq per mol; atomic weight 32.06)
+    s_ = shares_display(s, "grass", "2021", "S_total", eq=True)
+    assert s_["5 % alone [eq/ha]"].iloc[0] == pytest.approx(2000 / 32.06, rel=1e-3)
+    assert "5 % alone [kg N/ha]" in shares_display(s, "grass", "2021", "N_total").columns
+
+
+def test_the_critical_loads_explorer_explains_the_range_it_shows(two_sites_2021):
+    from workbench.ui.apps_analysis import CriticalLoadsExplorer
+    from workbench.ui.session import Session
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = CriticalLoadsExplorer(Session.open(two_sites_2021), site="ridge")
+    assert app.shares_w.total_w.value == "N_total" and app.shares_w.eq
