@@ -416,7 +416,8 @@ def test_critical_loads_range_shares_in_a_real_browser(lab, token, page, tmp_pat
     table.wait_for(state="visible", timeout=PAGE_TIMEOUT_MS)
     text = table.inner_text()
     assert ROW_NAMES["all"] in text and "vd_gsd" in text and "share of the log-variance" in text
-    assert "kg N/ha" in text
+    assert "[eq/ha" in text and "kg N/ha" not in text       # the app's unit, eq
+    assert "range of total N" in page.locator(".wb-range-shares").inner_text()
     # nothing cut: the button's text whole, the table inside the output area
     cut = page.evaluate("() => [...document.querySelectorAll('.wb-range-shares .widget-button')]"
                         ".filter(b => b.scrollWidth > b.clientWidth + 1).map(b => b.innerText)")
@@ -425,8 +426,8 @@ def test_critical_loads_range_shares_in_a_real_browser(lab, token, page, tmp_pat
     box = page.locator(".wb-range-shares").bounding_box()
     assert box["x"] + box["width"] <= area["x"] + area["width"] + 1
     page.locator(".wb-range-shares .widget-dropdown select").select_option(label="dry S")
-    page.wait_for_function("() => /kg S\\/ha/.test(document.querySelector("
-                           "'.wb-range-shares table')?.innerText || '')")
+    page.wait_for_function("() => /range of dry S/.test(document.querySelector("
+                           "'.wb-range-shares')?.innerText || '')")
     _no_javascript_errors(page)
     _screenshot(page, tmp_path, "critical_loads_range_shares")
     _close_sessions(lab, token)

@@ -76,7 +76,8 @@ def test_the_button_shows_the_shares_of_the_shown_range(app):
                 assert got == pytest.approx(want, abs=1e-9), (total, col)
     page = app.shares_w.table_w.value
     assert ROW_NAMES["all"] in page and "vd_gsd" in page and "share of the log-variance" in page
-    assert "dry N" in app.shares_w.note_w.value and HINT not in app.shares_w.note_w.value
+    # the total the range above the figure gives (tests/ui/test_newuser_browser_pass.py)
+    assert "total N" in app.shares_w.note_w.value and HINT not in app.shares_w.note_w.value
 
 
 def test_the_all_row_is_the_explorers_own_range(app):
@@ -102,7 +103,8 @@ def test_the_total_and_year_pick_rows_without_computing_again(app):
     shares = app.shares_w.shares
     app.shares_w.total_w.value = "S_dry"
     assert app.shares_w.shares is shares
-    assert "dry S" in app.shares_w.note_w.value and "kg S/ha" in app.shares_w.table_w.value
+    # in equivalents, the critical-loads explorer's unit (tests/ui/test_newuser_browser_pass.py)
+    assert "dry S" in app.shares_w.note_w.value and "[eq/ha" in app.shares_w.table_w.value
     # the button again: the graph's stage, not a second computation
     app.shares_w.button.click()
     assert app.shares_w.shares is shares

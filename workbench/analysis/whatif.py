@@ -219,7 +219,8 @@ def percent_up(fraction):
     >>> percent_up(np.array([1 / 3, 0.5])).tolist()
     [34.0, 50.0]
     """
-    up = np.ceil(100.0 * np.asarray(fraction, dtype=float) - PERCENT_NOISE)
+    # + 0.0: a cut of 0 gives 0, not ceil(-noise) = -0.0 (the path table read "-0")
+    up = np.ceil(100.0 * np.asarray(fraction, dtype=float) - PERCENT_NOISE) + 0.0
     return int(up) if up.ndim == 0 else up
 
 

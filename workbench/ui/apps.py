@@ -20,6 +20,7 @@ from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, make_control,
                        open_with_progress, refresh, set_quietly, table_html, wrap_labels_style)
 from .figure_open import NARROW_OUTPUT_PX, PAGE_FIGURE_WIDTH, page  # noqa: F401
+from .figure_period import fit_title, span_label
 from .scheme_tab import SchemeTab
 from .session import Session, output_dir
 from .palette import TEMPLATE
@@ -63,6 +64,22 @@ def column_layouts() -> dict:
             "path": widgets.Layout(width=f"{ASSUMPTIONS_WIDTH - 20}px", max_width="100%")}
 #: Gases whose resistances may be shown.
 GASES = ("SO2", "HNO3", "NH3", "NO2")
+
+
+def fitted_layout(layout: dict, width: int) -> dict:
+    """`layout` at `width` [px] with its title fitted to that width
+    (:func:`~workbench.ui.figure_period.fit_title`) and a top margin that holds its
+    lines (:func:`~workbench.ui.figures.title_room`): the velocity and resistance tabs'
+    titles ran past the 520 px figure's edge ("... · conifer_forest · 2023" cut)."""
+    out = {**layout, "width": width}
+    title = (layout.get("title") or {}).get("text")
+    if title:
+        fitted = fit_title(title, width)
+        if fitted != title:
+            margin = dict(layout.get("margin") or {})
+            margin["t"] = max(margin.get("t", 0), figures.title_room(fitted))
+            out.update(title={**layout["title"], "text": fitted}, margin=margin)
+    return out
 
 
 class SiteExplorer(SavedText, widgets.VBox):
@@ -266,9 +283,10 @@ class SiteExplorer(SavedText, widgets.VBox):
         return self.session.run(self.settings, self.site, *self.years, res, self.receptor_w.value)
 
     def _span(self) -> str:
-        """The years shown, as a label (``2021`` or ``2019-2021``)."""
+        """The years shown, as a label (``2021`` or ``2019–2021``, the en dash of the
+        budget's title: the velocity tabs wrote ``2019-2021`` beside it)."""
         first, last = self.years
-        return f"{first}" if first == last else f"{first}-{last}"
+        return span_label([first, last])
 
     def rows(self):
         """The rows of budget.csv of the site and years shown, every species together
@@ -289,7 +307,7 @@ class SiteExplorer(SavedText, widgets.VBox):
         template it was created with), or a plotly Figure with `template` to create a
         widget."""
         spec = self._spec(name)
-        spec = {**spec, "layout": {**spec.get("layout", {}), "width": FIGURE_WIDTH}}
+        spec = {**spec, "layout": fitted_layout(spec.get("layout", {}), FIGURE_WIDTH)}
         return spec if template is None else figures.from_spec(spec, template)
 
     def _spec(self, name):

@@ -111,8 +111,11 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
             indent=False, layout=widgets.Layout(width="auto"))
         self._draws = None
         from .range_shares_panel import RangeSharesPanel   # where the range comes from
+        # total N in eq, as the range above the figure: its "every factor (the range
+        # shown)" row read dry N in kg N/ha under "N 1196-5761 eq/ha/yr"
         self.shares_w = RangeSharesPanel(self.range_shares, lambda: (
-            self.site_w.value, self.receptor_w.value, self.year_w.value))
+            self.site_w.value, self.receptor_w.value, self.year_w.value),
+            total="N_total", eq=True)
         #: True while the receptor and year lists are refilled: their changes draw nothing.
         #: (Never ``unobserve_all("value")`` on a Dropdown: it also drops ipywidgets' own
         #: value -> index link, and the page then shows an empty drop-down.)

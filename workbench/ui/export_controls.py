@@ -77,8 +77,29 @@ class FigureExport(widgets.HBox):
         fmt = fmt or self.format_w.value
         folder = Path(self._folder())
         folder.mkdir(parents=True, exist_ok=True)
+        figures = self._figures()
+        # said at once, the button off while the files are written: a PNG takes seconds
+        # (kaleido), and seven took 35 s in the site explorer with nothing on the page
+        self.message_w.value = (f"writing {len(figures)} figure{'s' if len(figures) != 1 else ''}"
+                                f" as {html.escape(fmt.upper())} into "
+                                f"{html.escape(str(folder))} ...")
+        self.button_w.disabled = True
+        try:
+            written, fallback = self._write(figures, folder, fmt)
+        except Exception as exc:     # not "writing ..." left on the page
+            self.message_w.value = (f"<span style='color:#D55E00'>figures not written: "
+                                    f"{html.escape(str(exc))}</span>")
+            raise
+        finally:
+            self.button_w.disabled = False
+        self.written = written
+        return self._finish(written, fallback, folder, fmt)
+
+    def _write(self, figures: dict, folder: Path, fmt: str):
+        """Write `figures` into `folder`; returns the paths and the reasons of the
+        figures written as HTML instead of `fmt`."""
         written, fallback = [], []
-        for name, fig in self._figures().items():
+        for name, fig in figures.items():
             path = folder / f"{file_stem(self.prefix, name)}.{fmt}"
             if not isinstance(fig, dict):
                 fig = shown_figure(fig)
@@ -87,7 +108,10 @@ class FigureExport(widgets.HBox):
             except ExportError as exc:
                 written.append(export_figure(fig, path.with_suffix(".html")))
                 fallback.append(str(exc))
-        self.written = written
+        return written, fallback
+
+    def _finish(self, written, fallback, folder, fmt):
+        """Say what was written where (and what not, and what as HTML instead)."""
         text = (f"{len(written)} figure{'s' if len(written) != 1 else ''} written to "
                 f"{html.escape(str(folder))}: "
                 + ", ".join(html.escape(p.name) for p in written))

@@ -97,3 +97,46 @@ def period_ticks(periods, room_px: float) -> dict:
     return {"type": "category", "tickmode": "array", "tickvals": shown, "ticktext": shown,
             "tickangle": 0 if level else SLANT_ANGLE,
             "categoryorder": "array", "categoryarray": names}
+
+
+#: Width of a character of a figure's title at plotly's 17 px title font [px]: measured
+#: in chromium, "Resistances of NH3 (medians by hour) · mere · wetland · 2021-2023"
+#: (66 characters) drew 513 px wide; plotly starts a title at 5 % of the figure's width.
+TITLE_CHAR_PX = 7.8
+#: Share of a figure's width a title line may take (5 % left of it, 5 % kept right).
+TITLE_SHARE = 0.9
+
+
+def title_chars(width_px: float) -> int:
+    """Most characters of one title line in a figure `width_px` wide [px].
+
+    >>> title_chars(520)
+    60
+    """
+    return int(TITLE_SHARE * width_px / TITLE_CHAR_PX)
+
+
+def fit_title(title: str, width_px: float) -> str:
+    """`title` with each line that is too long for a figure `width_px` wide [px] broken
+    (plotly's ``<br>``) after its first part: the what on one line, the where and when
+    after the first middle dot on the next (``Resistances of NH3 (medians by hour)`` /
+    ``mere · wetland · 2021–2023``); a part still too long wraps at spaces.  Plotly
+    neither wraps nor shrinks a title: a 71-character title of a 520 px figure was cut
+    at the figure's edge, in the middle of its years.
+
+    >>> fit_title("Budget · ridge · 2023", 520)
+    'Budget · ridge · 2023'
+    >>> fit_title("Resistances of NH3 (medians by hour) · mere · wetland · 2021–2023", 520)
+    'Resistances of NH3 (medians by hour)<br>mere · wetland · 2021–2023'
+    """
+    import textwrap
+    chars = title_chars(width_px)
+    out = []
+    for line in str(title).split("<br>"):
+        if len(line) <= chars:
+            out.append(line)
+            continue
+        parts = line.split(" · ", 1) if " · " in line else [line]
+        for part in parts:
+            out.extend(textwrap.wrap(part, chars) if len(part) > chars else [part])
+    return "<br>".join(out)

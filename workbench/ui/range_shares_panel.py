@@ -17,6 +17,7 @@ import numpy as np
 import pandas as pd
 
 from ..analysis.range_shares import READ_TEXT, of_own_element
+from ..units import element_deposition_in
 from .controls import table_html
 
 #: The totals offered, as shown -> ``total`` of the shares.
@@ -33,7 +34,7 @@ HINT = ("Each drawn factor's share of the range of the site, receptor, year and 
         "as the Monte Carlo again for each).")
 
 
-def shares_display(shares: pd.DataFrame, receptor, period, total) -> pd.DataFrame:
+def shares_display(shares: pd.DataFrame, receptor, period, total, eq=False) -> pd.DataFrame:
     """The rows of one receptor, period and total as the table shows them.
 
     Parameters
@@ -43,6 +44,10 @@ def shares_display(shares: pd.DataFrame, receptor, period, total) -> pd.DataFram
     receptor, period : str
     total : str
         ``S_dry``, ``N_dry``, ``S_total`` or ``N_total``.
+    eq : bool
+        The quantiles in equivalents (eq/ha, eq/ha/yr) instead of kg of the element:
+        the critical-loads explorer's unit (its table read "kg N/ha" under a range
+        written in eq/ha/yr).
 
     Returns
     -------
@@ -59,6 +64,11 @@ def shares_display(shares: pd.DataFrame, receptor, period, total) -> pd.DataFram
         return pd.DataFrame()
     unit = str(s["unit"].iloc[0]).replace(" ha-1", "/ha").replace(" yr-1", "/yr")
     unit = f"kg {total[0]}/ha" if unit == "kg/ha" else f"kg {total[0]}/ha/yr"
+    scale = 1.0
+    if eq:      # eq per kg of the element: 2 eq per mol of S, 1 per mol of N
+        scale = float(element_deposition_in(1.0, total[0], "eq_ha")
+                      / element_deposition_in(1.0, total[0], "kg_ha"))
+        unit = unit.replace(f"kg {total[0]}/", "eq/")
     s = of_own_element(s)            # a Vd species' part of the total's element only
     named = s["factor"].isin(list(ROW_NAMES))
     part = s["part_of"].fillna("").astype(str) != ""
@@ -76,9 +86,9 @@ def shares_display(shares: pd.DataFrame, receptor, period, total) -> pd.DataFram
         "factor": label,
         "share of the log-variance": np.round(s["log_variance_share"].to_numpy(float), 3),
         "share of the variance": np.round(s["variance_share"].to_numpy(float), 3),
-        f"5 % alone [{unit}]": np.round(s["alone_p05"].to_numpy(float), 3),
-        f"50 % alone [{unit}]": np.round(s["alone_p50"].to_numpy(float), 3),
-        f"95 % alone [{unit}]": np.round(s["alone_p95"].to_numpy(float), 3)})
+        f"5 % alone [{unit}]": np.round(scale * s["alone_p05"].to_numpy(float), 3),
+        f"50 % alone [{unit}]": np.round(scale * s["alone_p50"].to_numpy(float), 3),
+        f"95 % alone [{unit}]": np.round(scale * s["alone_p95"].to_numpy(float), 3)})
 
 
 class RangeSharesPanel(widgets.VBox):
@@ -91,6 +101,10 @@ class RangeSharesPanel(widgets.VBox):
         period and total), :func:`workbench.analysis.range_shares.site_shares`.
     where : callable
         ``where() -> (site, receptor, period)`` shown by the app.
+    total : str
+        The total first chosen (``N_dry``, ``S_dry``, ``N_total``, ``S_total``).
+    eq : bool
+        Quantiles in equivalents (:func:`shares_display`).
 
     Attributes
     ----------
@@ -99,12 +113,12 @@ class RangeSharesPanel(widgets.VBox):
         years change: :meth:`clear`).
     """
 
-    def __init__(self, compute, where):
-        self.compute, self.where = compute, where
+    def __init__(self, compute, where, total="N_dry", eq=False):
+        self.compute, self.where, self.eq = compute, where, eq
         self.shares, self.site = None, None
         self.button = widgets.Button(description=BUTTON_TEXT, icon="question",
                                      layout=widgets.Layout(width="auto"))
-        self.total_w = widgets.Dropdown(options=list(TOTAL_CHOICES), value="N_dry",
+        self.total_w = widgets.Dropdown(options=list(TOTAL_CHOICES), value=total,
                                         description="total",
                                         layout=widgets.Layout(width="220px"))
         self.note_w = widgets.HTML(f"<p><i>{html.escape(HINT)}</i></p>")
@@ -138,7 +152,7 @@ class RangeSharesPanel(widgets.VBox):
             self.note_w.value = f"<p><i>{html.escape(HINT)}</i></p>"
             self.table_w.value = ""
             return
-        shown = shares_display(self.shares, receptor, period, self.total_w.value)
+        shown = shares_display(self.shares, receptor, period, self.total_w.value, self.eq)
         name = dict((v, k) for k, v in TOTAL_CHOICES)[self.total_w.value]
         self.note_w.value = (
             f"<p>Each factor's share of the range of {html.escape(name)} · "
