@@ -62,7 +62,8 @@ def n_split_html(years: xr.Dataset, site, receptor, unit="kg/ha/yr",
     f = n_split_table(years, site, receptor, unit, table)
     if f.empty:
         return ""
-    units = {"oxidized_N": f"{unit} N", "reduced_N": f"{unit} N", "reduced_share": "%",
+    n_unit = unit.replace("kg/", "kg N/").replace("mmol/", "mmol N/")   # eq: of charge
+    units = {"oxidized_N": n_unit, "reduced_N": n_unit, "reduced_share": "%",
              "potential_acidity": "eq/ha/yr"}
     short = {"oxidized_N": "oxidized N", "reduced_N": "reduced N",
              "reduced_share": "reduced share", "potential_acidity": "potential acidity"}
@@ -88,7 +89,7 @@ def n_split_html(years: xr.Dataset, site, receptor, unit="kg/ha/yr",
     return (f"{TABLE_CSS}<div style='font-size:85%;max-width:520px;overflow-x:auto'>"
             "<b>N split and potential acidity</b> (2 S + oxidized N + reduced N; yearly "
             "rates; marks as the report's: x fails completeness, f flagged, p partial)"
-            "<table class='wb-table wb-n-split'><thead><tr><th>year</th>" + heads
+            "<table class='wb-table'><thead><tr><th>year</th>" + heads
             + "</tr></thead><tbody>" + "".join(rows) + "</tbody></table>" + notes + "</div>")
 
 
