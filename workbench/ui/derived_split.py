@@ -25,12 +25,16 @@ def _rates(years: xr.Dataset, table: pd.DataFrame | None) -> pd.DataFrame:
 
 def completeness_words(frame: pd.DataFrame, name: str) -> np.ndarray:
     """``passes``, ``fails: <reason>`` or ``-`` (the sum missing) of the sum `name` of
-    :func:`workbench.report_derived.derived_rates`."""
+    :func:`workbench.report_derived.derived_rates`, with ``(without NO2)`` where a part
+    has no data."""
     status = frame[f"{name}_status"].fillna("missing").astype(str).to_numpy()
     ok = frame[f"{name}_passes"].fillna(False).astype(bool).to_numpy()
     why = frame[f"{name}_completeness_failure"].fillna("").astype(str).to_numpy()
     out = np.where(ok, "passes", "fails: " + why.astype(object))
-    return np.where(status == "missing", "-", out)
+    # a sum without a part (mere has no NO2) says so beside it: its share leans
+    lack = frame[f"{name}_missing_components"].fillna("").astype(str).str.split()
+    without = np.array([f" (without {', '.join(m)})" if m else "" for m in lack], dtype=object)
+    return np.where(status == "missing", "-", out + without)
 
 
 def n_split_table(years: xr.Dataset, site, receptor, unit="kg/ha/yr",
