@@ -83,7 +83,8 @@ def n_split_html(years: xr.Dataset, site, receptor, unit="kg/ha/yr",
             text = ("–" if not np.isfinite(v) else f"{v:.0f}" if k == "reduced_share"
                     else table_number(v)) + marks[k][i]
             why = str(r[f"{k}_completeness_failure"])
-            title = f" title='fails completeness: {html.escape(why, quote=True)}'" if bad[k][i] else ""
+            title = (f" title='fails completeness: {html.escape(why, quote=True)}'"
+                     if bad[k][i] else "")
             if bad[k][i]:
                 said.setdefault((str(r["period"]), why), []).append(short[k])
             cells.append(f"<td{title}>{html.escape(text)}</td>")
