@@ -49,6 +49,8 @@ def n_split_table(years: xr.Dataset, site, receptor, unit="kg/ha/yr",
         ``<sum>_passes`` and ``<sum>_completeness_failure``
         (:func:`workbench.report_derived.derived_rates`).
     """
+    if table is None:           # only this site and receptor: a redraw pays for one pair
+        years = years.sel(site=[site], receptor=[receptor])
     f = _rates(years, table)
     f = f[(f["site"] == str(site)) & (f["receptor"] == str(receptor))].reset_index(drop=True)
     for k in ("oxidized_N", "reduced_N"):      # kg N/ha/yr -> the unit on screen
