@@ -317,6 +317,13 @@ def test_site_budget_in_a_real_browser(lab, token, page, tmp_path):
     assert edges["app"] <= edges["window"] and edges["out"] == [], edges
     # the dry-N bracket is shown beside the bars
     assert "gas/particle bracket" in page.locator(".wb-bracket").inner_text()
+    # the split of N and the potential acidity under the bars, no wider than them
+    split = page.locator(".wb-n-split")
+    assert "potential acidity" in split.inner_text() and "reduced share" in split.inner_text()
+    widths = page.evaluate("() => [document.querySelector('.wb-n-split table')"
+                           ".getBoundingClientRect().right, document.querySelector("
+                           "'.wb-budget').getBoundingClientRect().right]")
+    assert widths[0] <= widths[1] + 1, widths
     before = page.evaluate(BUDGET)
     wet_so4 = _trace(before, "wet SO4")["y"][0]
     assert wet_so4 > 0

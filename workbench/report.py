@@ -123,6 +123,8 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     pivot = _pivot_html(per)
     parts.append(fold(pivot, per[["site", "receptor", "element"]].drop_duplicates().shape[0],
                       "the totals of every site, receptor and period") if network else pivot)
+    from .report_derived import derived_section       # oxidized/reduced N, acidity
+    parts.extend(derived_section(result, network))
     parts.extend(_schemes_html(all_schemes, network))
     parts.extend(_nh3_html(result, network))
     from .analysis.uncertainty import bulk_state, nh3_gamma_state, report_section

@@ -160,6 +160,8 @@ class SiteExplorer(SavedText, widgets.VBox):
         self.nh3_w = widgets.HTML("")          # the NH3 figure used: net or deposition only
         self.bracket_w = widgets.HTML("")      # dry N against its gas/particle bracket
         self.bracket_w.add_class("wb-bracket")
+        self.split_w = widgets.HTML("")        # oxidized / reduced N, potential acidity
+        self.split_w.add_class("wb-n-split")
         self.message_w = widgets.HTML("")
         self.excluded_w = widgets.HTML("")
         self.latency_s = float("nan")
@@ -178,6 +180,7 @@ class SiteExplorer(SavedText, widgets.VBox):
         self.change_w.value = html.escape(change_line(None, self._totals, self.unit_w.value))
         self.nh3_w.value = self._nh3_html()
         self.bracket_w.value = self._bracket_html()
+        self.split_w.value = self._split_html()
         self.excluded_w.value = self._excluded_html()
         # each figure in a box of its own: opened anew, it keeps its old drawing until
         # the new one has drawn, as the budget does (figure_open.page)
@@ -232,7 +235,7 @@ class SiteExplorer(SavedText, widgets.VBox):
         left = widgets.VBox([widgets.HTML("<b>Assumptions</b>"), acc, buttons],
                             layout=cols["assumptions"])
         right = widgets.VBox([self.change_w, self.nh3_w, self.bracket_w, page(self.figs["budget"]),
-                              self.gas_w,
+                              self.split_w, self.gas_w,
                               self.tabs],
                              layout=cols["figures"])
         head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w],
@@ -386,6 +389,11 @@ class SiteExplorer(SavedText, widgets.VBox):
                                         self.receptor_w.value, self.unit_w.value,
                                         self.settings.budget.pair_split))
 
+    def _split_html(self):
+        from .derived_split import n_split_html
+        return n_split_html(self.result.years, self.site, self.receptor_w.value,
+                            self.unit_w.value)
+
     def _excluded_html(self):
         start, end = self.session.bounds(*self.years)
         t = excluded_samples(self.result.screened, self.site, start=start, end=end)
@@ -404,6 +412,7 @@ class SiteExplorer(SavedText, widgets.VBox):
         self._totals = after
         self.nh3_w.value = self._nh3_html()
         self.bracket_w.value = self._bracket_html()
+        self.split_w.value = self._split_html()
         names = ([n for n in TABS if n not in LAZY_TABS] if all_tabs  # those: when opened
                  else [TABS[self.tabs.selected_index or 0]])
         for name in names:

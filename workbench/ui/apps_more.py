@@ -424,6 +424,19 @@ class NetworkOverview(SavedText, widgets.VBox):
                 cols[f"{el} completeness"] = wide[("completeness", el)]
                 cols[f"{el} without data"] = wide[("missing", el)].replace(
                     {"": "-", "nan": "-"}).fillna("-")
+        # the reduced share of N and the potential acidity of the same rows, each with
+        # whether it passes completeness (summary.csv's derived sums, yearly rates)
+        from .derived_split import completeness_words, network_derived
+        d = network_derived(self.results.values(), self.session.study.inputs.catalogue)
+        if len(d):
+            d = d.assign(period=d["period"].astype(str)).set_index(
+                ["site", "receptor", "period"])
+            d = d.reindex(pd.MultiIndex.from_arrays(
+                [wide.index.get_level_values(k).astype(str) for k in range(3)]))
+            cols["reduced share of N [%]"] = d["reduced_share"].to_numpy()
+            cols["reduced share completeness"] = completeness_words(d, "reduced_share")
+            cols["potential acidity [eq/ha/yr]"] = d["potential_acidity"].to_numpy()
+            cols["potential acidity completeness"] = completeness_words(d, "potential_acidity")
         shown = ShownTable(cols)
         shown.attrs["whole_text"] = True             # the reason with its minimum, whole
         return shown

@@ -1,0 +1,87 @@
+"""The site explorer's table of oxidized and reduced N and potential acidity under the
+budget bars, and the network overview's reduced-share and potential-acidity columns of
+``net.totals()`` (before, both showed the S and N totals only).  Checked against an
+independent pandas sum of the app's own budget.csv rows (``result.table``)."""
+import re
+import warnings
+
+import numpy as np
+import pandas as pd
+import periodictable
+import pytest
+
+pytestmark = pytest.mark.filterwarnings("ignore::RuntimeWarning")
+
+
+def _by_hand(table: pd.DataFrame) -> pd.DataFrame:
+    """kg N/ha/yr of each form of N and the potential acidity 2 S + N [eq/ha/yr] from
+    budget.csv's component rows (molar masses of periodictable; 2 eq per mol S as
+    sulfate, 1 per mol N: common practice)."""
+    comp = table[(table["species"] != "all") & (table["period"].astype(str) != "span")]
+    key = ["site", "receptor", "period"]
+
+    def per(mask):
+        return comp[mask].groupby(key)["flux_kg_ha_yr"].sum(min_count=1)
+    ox = per(comp["species"].isin(("NO3", "HNO3", "pNO3", "NO2")))
+    red = per(comp["species"].isin(("NH4", "NH3", "pNH4")))
+    s = per(comp["element"] == "S")
+    pa = s / (periodictable.S.mass / 1000) * 2 + (ox + red) / (periodictable.N.mass / 1000)
+    out = pd.DataFrame({"oxidized_N": ox, "reduced_N": red,
+                        "reduced_share": 100 * red / (ox + red), "potential_acidity": pa})
+    return out.reset_index().astype({"period": str})
+
+
+def test_site_explorer_shows_the_split_of_n(session):
+    from workbench.ui.apps import SiteExplorer
+    app = SiteExplorer(session, site="ridge", years=(2020, 2021))
+    text = app.split_w.value
+    assert "N split and potential acidity" in text and "oxidized N [kg N/ha/yr]" in text
+    rec = app.receptor_w.value
+    from workbench.tables import budget_table         # budget.csv's rows of the years
+    hand = _by_hand(budget_table(app.result.years))
+    hand = hand[(hand["site"] == "ridge") & (hand["receptor"] == rec)
+                & hand["period"].isin(["2020", "2021"])]
+    assert len(hand) == 2
+    for r in hand.itertuples(index=False):
+        row = re.search(rf"<tr><td>{r.period}</td>(.*?)</tr>", text).group(1)
+        cells = [c.split()[0].replace(",", "") for c in re.findall(r">([^<]+)</td>", row)]
+        assert float(cells[0]) == pytest.approx(r.oxidized_N, rel=6e-3)
+        assert float(cells[1]) == pytest.approx(r.reduced_N, rel=6e-3)
+        assert abs(float(cells[2]) - r.reduced_share) <= 0.5 + 1e-9
+        assert float(cells[3]) == pytest.approx(r.potential_acidity, rel=6e-3)
+    # the unit control moves the N forms, the acidity stays in eq/ha/yr
+    app.unit_w.value = "eq/ha/yr"
+    assert "oxidized N [eq/ha/yr]" in app.split_w.value
+    assert "potential acidity [eq/ha/yr]" in app.split_w.value
+
+
+def test_network_totals_carry_reduced_share_and_acidity(two_sites_2021):
+    from workbench.tables import budget_table
+    from workbench.ui.apps import NetworkOverview
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        net = NetworkOverview.from_scenario(two_sites_2021)
+    t = net.totals()
+    cols = ["reduced share of N [%]", "reduced share completeness",
+            "potential acidity [eq/ha/yr]", "potential acidity completeness"]
+    assert set(cols) <= set(t.columns)
+    plain = t.to_plain() if hasattr(t, "to_plain") else t
+    checked = 0
+    for r in net.results.values():
+        hand = _by_hand(budget_table(r.years))
+        for (s, rec, period), row in plain.iterrows():
+            h = hand[(hand["site"] == s) & (hand["receptor"] == rec)
+                     & (hand["period"] == str(period))]
+            if h.empty:                                  # another run's site
+                continue
+            h, checked = h.iloc[0], checked + 1
+            assert row["reduced share of N [%]"] == pytest.approx(h["reduced_share"], rel=1e-6)
+            assert row["potential acidity [eq/ha/yr]"] == pytest.approx(
+                h["potential_acidity"], rel=1e-6)
+    assert checked == len(plain) == 2                   # ridge and mere, 2021
+    # every 2021 total of these demo sites passes completeness; mere has no NO2, and its
+    # share and acidity say so (its share leans to reduced N)
+    for col in ("potential acidity completeness", "reduced share completeness"):
+        assert plain.xs("ridge", level="site")[col].tolist() == ["passes"]
+        assert plain.xs("mere", level="site")[col].tolist() == ["passes (without NO2)"]
+    assert np.isfinite(plain["potential acidity [eq/ha/yr]"].astype(float)).all()
