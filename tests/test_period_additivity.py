@@ -207,3 +207,24 @@ def test_dry_months_add_up_to_the_year_when_covered_and_not_across_a_gap():
     dm = to_periods(r, cs, ["a"], months, tt)["deposition"].values[0, 0]
     dy = to_periods(r, cs, ["a"], year, tt)["deposition"].values[0, 0]
     assert dm.sum() != pytest.approx(dy[0], rel=1e-6)
+
+
+def test_month_with_one_contaminated_week_names_the_week_and_its_share():
+    """March 2021 (744 h) with the week of 9-16 March (168 h) contaminated: coverage
+    576/744 = 77.4 % < 90 %, and the reason names the week, its line, its share of the
+    month (168/744 = 22.6 %) and why it is not used (before: the share alone)."""
+    rows = _weekly(flags={"2021-03-09 09:00:00": "contaminated"})
+    line = 2 + [r["start"] for r in rows].index("2021-03-09 09:00:00")
+    wet = wet_deposition(screen(make_samples(rows, ions=IONS)),
+                         P.make_periods("2021-01-01", "2022-01-01", "month"))
+    march = wet.sel(site="A", period="2021-03")
+    assert march["coverage_fraction"].item() == pytest.approx(576 / 744)
+    assert march["status"].item() == "flagged"
+    reason = march["completeness_reasons"].item()
+    assert reason.startswith(
+        "sample coverage below minimum (77.4 % of the period; minimum 90 %), not covered: "
+        f"168 h (22.6 %) of sample 2021-03-09 line {line} (excluded: flag contaminated")
+    # a month that passes says nothing of the kind; the split of the reasons keeps it whole
+    assert "not covered" not in wet.sel(site="A", period="2021-04")["completeness_reasons"].item()
+    from workbench.budgetstatus_notes import split_notes
+    assert split_notes(reason)[0].endswith("visibly contaminated)")
