@@ -42,6 +42,7 @@ from .dryrows import exchange_member_rows
 from .graph import Graph, Node, content_digest, input_node, token
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
+from .period_notes import one_sample_notes
 from .periods import default_span, excluded_record_notes
 from .surfacehistory import collector_history, earlier_classes, land_use_history, mast_history
 from .tables import budget_table, span_table
@@ -590,7 +591,10 @@ class Study:
                                "receptors": receptors},
                       # a new list: the stage's own stays as cached
                       notes=([] if rows.value is None else list(rows.value["notes"]))
-                      + self.span_notes(start, end),
+                      + self.span_notes(start, end)
+                      + one_sample_notes(periods.value, self.inputs.precipitation,
+                                         self.inputs.air, wet_options.min_coverage_fraction,
+                                         budget_options.min_air_coverage),
                       keys={"budget": res_ds.key, "years": year_ds.key, "screened": screened.key,
                             "wet": wet_r.key, "velocities": vel.key},
                       graph=self.graph)
