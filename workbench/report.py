@@ -140,6 +140,25 @@ def _own_periods(result, years) -> bool:
     return [str(v) for v in budget["period"].values] != [str(v) for v in years["period"].values]
 
 
+def _totals_heading(result) -> list:
+    """Heading of the totals per period; where a period is no year (months, seasons, a
+    custom span) it says that its values are yearly rates, and how they are made (before,
+    a month's 27.0 kg/ha/yr read as if deposited in the month)."""
+    from .budget_axes import annual_factor
+    periods = getattr(result, "periods", None)
+    if periods is None or not len(periods) or np.allclose(annual_factor(periods), 1.0):
+        return ["<h2>Totals per period [kg/ha/yr of S or N]</h2>"]
+    kinds = sorted(set(periods["kind"].astype(str)))
+    kind = {"month": "month", "season": "season", "custom": "custom period"}.get(
+        kinds[0], "period") if len(kinds) == 1 else "period"
+    return ["<h2>Totals per period as yearly rates [kg/ha/yr of S or N]</h2>",
+            f"<p>Each {kind} is given as a yearly rate, the deposition of the {kind} "
+            "times the hours of its year over its own hours (a 31-day month: x 8760/744 "
+            f"= 11.8), so that {kind}s of different lengths and years compare; the "
+            f"deposition of the {kind} itself is budget.csv's <code>flux_kg_ha</code> "
+            "(kg/ha in the period), as in the bracket table below.</p>"]
+
+
 def _exceedance_html(result, study, network=False, ex=None) -> list:
     """The span's critical-load exceedances (exceedance.csv has every year); folded when
     long in the `network` layout.  `ex`: the exceedance table, if already computed."""
@@ -417,7 +436,7 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
                      + ".</p>")
     parts.append(fold(whole, len(span), "every site and receptor") if network else whole)
     parts.extend(_exceedance_html(result, study, network, ex))
-    parts.append("<h2>Totals per period [kg/ha/yr of S or N]</h2>")
+    parts.extend(_totals_heading(result))
     parts.append("<p>Marks: <b>x</b> fails completeness (no complete figure for the "
                  "period, never in the whole-span mean: the notes below and summary.csv's "
                  "<code>S_total_completeness_failure</code> say why), <b>f</b> flagged but "
