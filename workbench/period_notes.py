@@ -15,6 +15,9 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+#: The first words of every note of this module (the site explorer shows them under its
+#: monthly figure).
+NOTE_START = "completeness of "
 #: The kind of a period table (``kind`` column) as the note names it.
 KIND_WORDS = {"month": "month", "season": "season", "year": "year",
               "hydro_year": "hydrological year", "custom": "custom period"}
