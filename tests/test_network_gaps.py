@@ -128,9 +128,13 @@ def test_budget_rows_note_the_gap_of_their_own_component(run):
     # v02: 14 weeks of the gap and the planted lost sample of the demo's copy (15 weeks:
     # 1 - 15 x 168/8760 = 71.2 %, below the 90 % minimum): the failed criterion gives the
     # share once, with its minimum; the gap note said it again ("precipitation: 15 weeks
-    # without a usable sample (71.2 % of the period's hours covered)")
+    # without a usable sample (71.2 % of the period's hours covered)"); it names what is
+    # not covered: the sample left out (168/8760 = 1.9 %) and the 14 weeks without any
+    # (2352/8760 = 26.8 %)
     v02 = note[("v02", "wet", "SO4")]
-    assert v02.endswith("sample coverage below minimum (71.2 % of the period; minimum 90 %)")
+    assert ("sample coverage below minimum (71.2 % of the period; minimum 90 %), not "
+            "covered: 168 h (1.9 %) of sample 2017-") in v02
+    assert v02.endswith(", 2352 h (26.8 %) without any sample")
     assert v02.count("71.2 %") == 1 and "without a usable" not in v02
     # (v01 has the same one week: 1 - 168/8760 = 98.1 %)
     assert note[("v01", "wet", "SO4")] == ("1 week without a usable precipitation sample "

@@ -40,6 +40,7 @@ from .dryrows import exchange_member_rows
 from .graph import Graph, Node, content_digest, input_node, token
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
+from .period_notes import one_sample_notes
 from .periods import default_span, excluded_record_notes
 from .pipeline_result import Result
 from .pipeline_velocities import _NONE, _StudyVelocities
@@ -420,7 +421,10 @@ class Study(_StudyVelocities):
                                "receptors": receptors},
                       # a new list: the stage's own stays as cached
                       notes=([] if rows.value is None else list(rows.value["notes"]))
-                      + self.span_notes(start, end),
+                      + self.span_notes(start, end)
+                      + one_sample_notes(periods.value, self.inputs.precipitation,
+                                         self.inputs.air, wet_options.min_coverage_fraction,
+                                         budget_options.min_air_coverage),
                       keys={"budget": res_ds.key, "years": year_ds.key, "screened": screened.key,
                             "wet": wet_r.key, "velocities": vel.key},
                       graph=self.graph)

@@ -18,7 +18,7 @@ from .report_network import (NETWORK_SITES, fold, grouped_free_notes, grouped_no
 from .report_sections import (_BRACKET_COLUMN, MAX_SITE_FIGURES,  # noqa: F401
                               _bracket_notes_html, _exceedance_html, _figures_limited,
                               _nh3_html, _own_periods, _schemes_html, _settings_html,
-                              _trend_html, scheme_title)
+                              _totals_heading, _trend_html, scheme_title)
 from .report_numbers import number, table_formatters  # noqa: F401
 from .report_tables import (_FAILS_MARK, _MARK, DIGITS, ROUNDING_FLOOR,  # noqa: F401
                             _fails, _headed, _lacks, _pivot_html, _table_html, plain)
@@ -111,7 +111,7 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
                      + ".</p>")
     parts.append(fold(whole, len(span), "every site and receptor") if network else whole)
     parts.extend(_exceedance_html(result, study, network, ex))
-    parts.append("<h2>Totals per period [kg/ha/yr of S or N]</h2>")
+    parts.extend(_totals_heading(result))
     parts.append("<p>Marks: <b>x</b> fails completeness (no complete figure for the "
                  "period, never in the whole-span mean: the notes below and summary.csv's "
                  "<code>S_total_completeness_failure</code> say why), <b>f</b> flagged but "

@@ -6,6 +6,7 @@ from __future__ import annotations
 import html
 import re
 
+import numpy as np
 import pandas as pd
 
 from .column_labels import COLUMN_LABELS
@@ -38,6 +39,25 @@ def _own_periods(result, years) -> bool:
     if budget is None or budget is years or "period" not in budget.dims:
         return False
     return [str(v) for v in budget["period"].values] != [str(v) for v in years["period"].values]
+
+
+def _totals_heading(result) -> list:
+    """Heading of the totals per period; where a period is no year (months, seasons, a
+    custom span) it says that its values are yearly rates, and how they are made (before,
+    a month's 27.0 kg/ha/yr read as if deposited in the month)."""
+    from .budget_axes import annual_factor
+    periods = getattr(result, "periods", None)
+    if periods is None or not len(periods) or np.allclose(annual_factor(periods), 1.0):
+        return ["<h2>Totals per period [kg/ha/yr of S or N]</h2>"]
+    kinds = sorted(set(periods["kind"].astype(str)))
+    kind = {"month": "month", "season": "season", "custom": "custom period"}.get(
+        kinds[0], "period") if len(kinds) == 1 else "period"
+    return ["<h2>Totals per period as yearly rates [kg/ha/yr of S or N]</h2>",
+            f"<p>Each {kind} is given as a yearly rate, the deposition of the {kind} "
+            "times the hours of its year over its own hours (a 31-day month: x 8760/744 "
+            f"= 11.8), so that {kind}s of different lengths and years compare; the "
+            f"deposition of the {kind} itself is budget.csv's <code>flux_kg_ha</code> "
+            "(kg/ha in the period), as in the bracket table below.</p>"]
 
 
 def _exceedance_html(result, study, network=False, ex=None) -> list:

@@ -308,3 +308,19 @@ def _walk(w):
     yield w
     for c in getattr(w, "children", ()):
         yield from _walk(c)
+
+
+def test_monthly_tab_says_weekly_samples_make_months_strict(session):
+    """Under the monthly figure: one weekly sample is 25.0 % of February (672 h) against
+    the 10 % that [wet] min_coverage_fraction = 0.9 lets a month miss, and the options to
+    set; at 0.75 a week of any month may go (75.0 % equals the minimum) and the words go."""
+    app = SiteExplorer(session, site="ridge", years=(2021, 2021))
+    try:
+        app.tabs.selected_index = TABS.index("monthly fluxes")
+        assert "one precipitation sample (the median, 168 h) is 25.0 % of the shortest " \
+               "period (2021-02, 672 h)" in app.monthly_w.value
+        assert "min_coverage_fraction" in app.monthly_w.value
+        app.controls["wet.min_coverage_fraction"].value = 0.75
+        assert "precipitation sample" not in app.monthly_w.value
+    finally:
+        app.reset()

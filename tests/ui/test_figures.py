@@ -282,3 +282,20 @@ def test_nh3_line_of_a_deposition_of_zero_says_why_there_is_no_share():
     assert "no share offset by emission (no percent: the deposition only is 0)" in line
     ok = summaries.nh3_line(ds(2e-3, 1.5e-3), "s", "grass")
     assert "emission offsets 25 %" in ok
+
+
+def test_monthly_hover_says_why_a_month_fails(result):
+    """ridge 2021-03 fails its sample coverage for one week left out (the demo's lid_open
+    sample, 168 of 744 h: 77.4 %); the hover of that month says which sample and its
+    share, as budget.csv's completeness_failure; a complete month says nothing more."""
+    spec = figures.monthly_fluxes_spec(result.budget, "ridge", "grass")
+    wet_s = spec["data"][0]
+    assert wet_s["name"] == "S wet"
+    assert "%{customdata[0]}%{customdata[1]}" in wet_s["hovertemplate"]
+    march = wet_s["customdata"][wet_s["x"].index("2021-03-01")]
+    assert march[0] == "flagged"
+    words = march[1].replace("<br>", " ")
+    assert "sample coverage below minimum (77.4 % of the period; minimum 90 %)" in words
+    assert "168 h (22.6 %) of sample 2021-03-18" in words
+    april = wet_s["customdata"][wet_s["x"].index("2021-04-01")]
+    assert april == ["complete", ""]

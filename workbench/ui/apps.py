@@ -164,6 +164,7 @@ class SiteExplorer(SavedText, widgets.VBox):
         self.split_w.add_class("wb-n-split")
         self.message_w = widgets.HTML("")
         self.excluded_w = widgets.HTML("")
+        self.monthly_w = widgets.HTML("")      # monthly completeness: strict with weekly samples
         self.latency_s = float("nan")
         self._before = None
         self._drawn = {}
@@ -182,11 +183,14 @@ class SiteExplorer(SavedText, widgets.VBox):
         self.bracket_w.value = self._bracket_html()
         self.split_w.value = self._split_html()
         self.excluded_w.value = self._excluded_html()
+        self.monthly_w.value = self._monthly_html()
         # each figure in a box of its own: opened anew, it keeps its old drawing until
         # the new one has drawn, as the budget does (figure_open.page)
         pages = {n: page(self.figs.get(n)) for n in TABS}
         pages["excluded samples"] = widgets.VBox([page(self.figs["excluded samples"]),
                                                   self.excluded_w])
+        pages["monthly fluxes"] = widgets.VBox([page(self.figs["monthly fluxes"]),
+                                                self.monthly_w])
         pages["gas schemes"] = self.schemes.page
         self.tabs = widgets.Tab([pages[n] for n in TABS])
         self.tabs.add_class("wb-tabs")           # titles whole (WRAP_LABELS_CSS)
@@ -371,6 +375,8 @@ class SiteExplorer(SavedText, widgets.VBox):
             refresh(self.figs[name], self._figure(name))
             if name == "excluded samples":
                 self.excluded_w.value = self._excluded_html()
+            if name == "monthly fluxes":
+                self.monthly_w.value = self._monthly_html()
             self._drawn[name] = key
 
     def _nh3_html(self):
@@ -393,6 +399,13 @@ class SiteExplorer(SavedText, widgets.VBox):
         from .derived_split import n_split_html
         return n_split_html(self.result.years, self.site, self.receptor_w.value,
                             self.unit_w.value)
+
+    def _monthly_html(self):
+        """The run notes on monthly completeness (one weekly sample fails a month, and
+        the options to set; workbench/period_notes.py), under the monthly figure."""
+        from ..period_notes import NOTE_START
+        notes = [n for n in getattr(self.result, "notes", []) if str(n).startswith(NOTE_START)]
+        return "".join(f"<p>{html.escape(str(n))}</p>" for n in notes)
 
     def _excluded_html(self):
         start, end = self.session.bounds(*self.years)

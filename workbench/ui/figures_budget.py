@@ -323,10 +323,13 @@ def monthly_fluxes_spec(ds_month, site, receptor, unit="kg/ha/yr") -> dict:
                 "line": {"color": PATHWAY_COLOURS[pw], "dash": ELEMENT_DASH[el]},
                 "marker": {"symbol": ["circle" if x == "complete" else "circle-open" for x in st],
                            "size": 6, "color": PATHWAY_COLOURS[pw]},
-                "customdata": st.tolist(),
+                # the status, and why a month fails completeness (which sample, which
+                # share: the words of budget.csv's completeness_failure)
+                "customdata": [[x, "<br>" + wrap_text(w, 70) if w else ""]
+                               for x, w in zip(st.tolist(), g["why"].tolist())],
                 "hovertemplate": (f"{el} {pw} %{{x|%Y-%m}}: %{{y:.3g}} "
                                   f"{axis_text(unit, True, el)}<br>status "
-                                  "%{customdata}<extra></extra>"),
+                                  "%{customdata[0]}%{customdata[1]}<extra></extra>"),
                 "xaxis": xname.replace("axis", ""), "yaxis": yname.replace("axis", "")})
         layout[yname].update({"title": {"text": axis_text(unit, True, el)}, "rangemode": "tozero"})
     layout[axes[1][0]]["title"] = {"text": "month (UTC)"}

@@ -272,18 +272,23 @@ def monthly_amounts(ds_month: xr.Dataset, site, receptor, unit="kg/ha/yr") -> pd
     -------
     pandas.DataFrame
         ``period, start, element, pathway, value`` [unit without "/yr", per month],
-        ``status``.
+        ``status``, ``why`` (the first completeness criterion the month fails, as
+        budget.csv's ``completeness_failure``; "" where it passes).
     """
     pick = _picker(ds_month, site, receptor)
     labels = pick("period").astype(str)
     starts = pd.to_datetime(pick("period_start"))
     names = list(pick("total").astype(str))
     dep, status = pick("total_deposition"), pick("total_status").astype(str)
+    why = (pick("total_completeness_failure").astype(object)
+           if "total_completeness_failure" in ds_month else np.full(status.shape, "", object))
+    why = np.where(pd.isna(why), "", why).astype(str)
     rows = []
     for el in ("S", "N"):
         for pw in ("wet", "dry"):
             j = names.index(f"{el}_{pw}")
             rows.append(pd.DataFrame({
                 "period": labels, "start": starts, "element": el,
-                "pathway": pw, "value": to_unit(dep[:, j], el, unit), "status": status[:, j]}))
+                "pathway": pw, "value": to_unit(dep[:, j], el, unit), "status": status[:, j],
+                "why": why[:, j]}))
     return pd.concat(rows, ignore_index=True)

@@ -26,7 +26,8 @@ from .qa import UMOL_L_PER_MOL_M3, falls_short, pH_from_hydrogen
 from .screening import STATUSES
 
 # the sea-salt notes (defined here before)
-from .deposition_notes import _sample_names, _seasalt_floor_notes, _tracer_gaps  # noqa: F401
+from .deposition_notes import (_sample_names, _seasalt_floor_notes, _tracer_gaps,  # noqa: F401
+                               uncovered_words)
 # the samples' pieces and weights (defined here before)
 from .deposition_pieces import (_join, _met_fractions, _periods_table,  # noqa: F401
                                 _piece_weights, _species_list, _split, sample_weights)
@@ -187,15 +188,24 @@ def wet_deposition(screened: xr.Dataset, periods, options: WetOptions = WetOptio
     # --- completeness and status --------------------------------------------------------
     missing = (n_samples == 0) | ~(gauge_hours > 0)
     wet = precip > 0
+    # the samples and hours a failing coverage misses, named in its words (section 7)
+    cover_short = falls_short(coverage_fraction, opt.min_coverage_fraction)
+    piece_uncovered = table["hours"].values * (1.0 - covered_share(
+        table, site_idx, s_all, e_all, covering, n_site, origin, span))
+    all_prof = CoverageProfile(site_idx, s_all, e_all, n_site, origin, span)
     fails = [
         # a fraction equal to its minimum passes (to rounding: qa.falls_short); the
         # reason says how much there is against how much is asked (section 7)
         (falls_short(gauge_fraction, opt.min_gauge_fraction),
          _short_label("gauge record below minimum", gauge_fraction,
                       "of the period", opt.min_gauge_fraction)),
-        (falls_short(coverage_fraction, opt.min_coverage_fraction),
+        (cover_short,
          _short_label(COVERAGE_SHORT, coverage_fraction,
-                      "of the period", opt.min_coverage_fraction)),
+                      "of the period", opt.min_coverage_fraction)
+         + uncovered_words(screened, table, piece_uncovered,
+                           hours - all_prof.covered_hours(gs, gstart, ge).reshape(shape),
+                           cover_short & (n_samples > 0) & (gauge_hours > 0), flat, shape,
+                           hours)),
         (wet & falls_short(vpf, opt.min_valid_precip_fraction),
          _short_label("valid-chemistry precipitation below minimum", vpf,
                       "of the precipitation", opt.min_valid_precip_fraction)),
