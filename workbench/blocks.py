@@ -25,11 +25,13 @@ Every site is computed on its own in the pipeline (screening, wet periods, veloc
 dry fluxes and the budget are per site), so a block run gives the numbers of a whole
 run for every (site, receptor) pair a site asks for (tests/test_blocks.py).  Pairs no
 site asks for (``active`` false) are computed in neither (``stages.wanted_pairs``): no
-velocity there.  Each block lays its budget on the network's receptor axis
-(``Study.run(layout=)``), so such a pair holds what a whole run gives it (the site's
-wet deposition, dry components missing with Vd coverage 0, the total partial), not a
-fill value: budget.nc is the whole run's, variable by variable
-(tests/test_blocks_layout.py), as budget.csv and summary.csv are.
+velocity there.  Each block lays its budget on its own receptors and one receptor
+none of its sites asks for (``Study.run(layout=)``, :func:`block_layout`), which the
+reduction copies to the network's others, so such a pair holds what a whole run gives
+it (the site's wet deposition, dry components missing with Vd coverage 0, the total
+partial), not a fill value: budget.nc is the whole run's, variable by variable
+(tests/test_blocks_layout.py), as budget.csv and summary.csv are; a block's held
+result is not the network's receptors wide (tests/test_blocks_held_memory.py).
 
 Where the parts are: the sites in blocks and a block's memory in
 :mod:`workbench.block_sites`; the local dask cluster (:func:`start_client`,
