@@ -54,7 +54,7 @@ class _Resident:
 
 
 def _blocks(scenario):
-    from workbench.blocks import block_inputs, blocks_with_met, wanted_blocks
+    from workbench.blocks import block_inputs, block_layout, blocks_with_met, wanted_blocks
     from workbench.preflight import prepare
     from workbench.scenario import load_scenario
     sc = load_scenario(scenario)
@@ -71,7 +71,8 @@ def _blocks(scenario):
                              receptors)
     for sites, recs in wanted:
         yield (sites, recs, block_inputs(study.inputs, sites),
-               {**args, "receptors": recs, "layout": tuple(receptors)}, study.site_overrides)
+               {**args, "receptors": recs, "layout": block_layout(receptors, recs)},
+               study.site_overrides)
 
 
 def main(argv=None) -> int:

@@ -160,7 +160,33 @@ def _stacked(parts, dim):
     return out
 
 
-def _assembled(parts, receptors, sites):
+def _widened(ds, receptors, spare):
+    """`ds` of a block on the network's `receptors`: each receptor it lacks takes the
+    values of its `spare` receptor (one none of its sites asks for: every such receptor
+    holds the same values, :func:`workbench.blocks.block_layout`).  `ds` itself
+    without a spare or a receptor axis."""
+    if not _has_spare(ds, spare):
+        return ds
+    return ds.isel(receptor=_spare_index(ds, receptors, spare)).assign_coords(
+        receptor=xr.Variable("receptor", np.asarray(list(receptors)), ds["receptor"].attrs))
+
+
+def _has_spare(ds, spare) -> bool:
+    """`ds` is on a receptor axis holding `spare` (a block's hourly velocities are on its
+    own receptors only: they keep the fill values of the others)."""
+    return (ds is not None and spare is not None and "receptor" in ds.dims
+            and str(spare) in set(ds["receptor"].values.astype(str)))
+
+
+def _spare_index(ds, receptors, spare):
+    """Positions on `ds`'s receptor axis of each of the network's `receptors` (those
+    it lacks: its `spare`'s)."""
+    have = pd.Index(ds["receptor"].values.astype(str))
+    pos = have.get_indexer([str(r) for r in receptors])
+    return np.where(pos < 0, have.get_loc(str(spare)), pos)
+
+
+def _assembled(parts, receptors, sites, spares=None):
     """The blocks' Datasets on (site[, receptor]) as one, each block placed straight at
     its sites' positions (the catalogue order `sites`) and on the network's
     `receptors`: what :func:`_on_receptors`, ``xr.concat`` and a reordering give, with
@@ -187,8 +213,14 @@ def _assembled(parts, receptors, sites):
         return None
     site_pos = [index.get_indexer(sid.astype(str)) for sid in ids]   # once per block
     rec = list(receptors) if receptors is not None and "receptor" in first.dims else None
-    rec_pos = []
-    for p in parts:
+    rec_pos, takes = [], []          # takes: a widened block's positions (its spare's)
+    for p, spare in zip(parts, spares or [None] * len(parts)):
+        if rec is None or not _has_spare(p, spare):
+            takes.append(None)
+        else:
+            takes.append(_spare_index(p, rec, spare))
+            rec_pos.append(np.arange(len(rec)))
+            continue
         if rec is None:
             rec_pos.append(None)
             continue
@@ -217,11 +249,14 @@ def _assembled(parts, receptors, sites):
         shape = [len(order) if d == "site" else (len(rec) if d == "receptor" and rec else s)
                  for d, s in zip(v.dims, v.shape)]
         out = np.full(shape, fill_value(dtype, v.attrs), dtype=dtype)
-        for x, rp, sp in zip(vs, rec_pos, site_pos):
+        for x, rp, sp, tk in zip(vs, rec_pos, site_pos, takes):
+            values = x.values
+            if tk is not None and "receptor" in x.dims:
+                values = np.take(values, tk, axis=x.dims.index("receptor"))
             axes = [sp if d == "site" else
                     (rp if d == "receptor" and rp is not None else np.arange(s))
-                    for d, s in zip(x.dims, x.shape)]
-            out[np.ix_(*axes)] = x.values
+                    for d, s in zip(x.dims, values.shape)]
+            out[np.ix_(*axes)] = values
         made[n] = xr.Variable(v.dims, out, _combine_attrs([x.attrs for x in vs]),
                               encoding=v.encoding)
     site_attrs = _combine_attrs([p.variables["site"].attrs for p in parts])
@@ -264,11 +299,19 @@ def reduce_blocks(blocks, receptors, sample_positions=None, sites=None) -> Resul
     """
     first = blocks[0]
 
+    spares = [b.get("spare") for b in blocks]    # each block's receptor for the others
+
     def cat(parts, dim, receptors=None):
+        if receptors is None:
+            kept = [(q, None) for q in parts if q is not None]
+        else:
+            kept = [(q, s) for q, s in zip(parts, spares) if q is not None]
         if dim == "site":
-            out = _assembled([q for q in parts if q is not None], receptors, sites)
+            out = _assembled([q for q, _ in kept], receptors, sites, [s for _, s in kept])
             if out is not None:
                 return out
+        if receptors is not None:
+            parts = [_widened(q, receptors, s) for q, s in kept]
         out = _concat(parts, dim, receptors)
         if sites is None or out is None or dim != "site" or \
                 list(out["site"].values.astype(str)) == list(sites):

@@ -25,11 +25,13 @@ Every site is computed on its own in the pipeline (screening, wet periods, veloc
 dry fluxes and the budget are per site), so a block run gives the numbers of a whole
 run for every (site, receptor) pair a site asks for (tests/test_blocks.py).  Pairs no
 site asks for (``active`` false) are computed in neither (``stages.wanted_pairs``): no
-velocity there.  Each block lays its budget on the network's receptor axis
-(``Study.run(layout=)``), so such a pair holds what a whole run gives it (the site's
-wet deposition, dry components missing with Vd coverage 0, the total partial), not a
-fill value: budget.nc is the whole run's, variable by variable
-(tests/test_blocks_layout.py), as budget.csv and summary.csv are.
+velocity there.  Each block lays its budget on its own receptors and one receptor
+none of its sites asks for (``Study.run(layout=)``, :func:`block_layout`), which the
+reduction copies to the network's others, so such a pair holds what a whole run gives
+it (the site's wet deposition, dry components missing with Vd coverage 0, the total
+partial), not a fill value: budget.nc is the whole run's, variable by variable
+(tests/test_blocks_layout.py), as budget.csv and summary.csv are; a block's held
+result is not the network's receptors wide (tests/test_blocks_held_memory.py).
 
 Where the parts are: the sites in blocks and a block's memory in
 :mod:`workbench.block_sites`; the local dask cluster (:func:`start_client`,
@@ -102,10 +104,41 @@ def run_block(inputs, site_overrides, args: dict, keep_velocities=False) -> dict
            "monthly": monthly, "screened": res.screened, "wet": res.wet,
            "velocities": res.velocities if keep_velocities else None,
            "periods": res.periods, "options": res.options, "notes": list(res.notes),
-           "schemes": schemes}
+           "schemes": schemes, "spare": _spare(args)}
     del study, res
     release_free_memory()      # the block's hourly arrays: back to the system
     return out
+
+
+def _spare(args) -> str | None:
+    """The receptor of a block's `layout` that none of its sites asks for (None: none).
+
+    A block computes its own receptors and lays its results on them and on one receptor
+    of the network that none of its sites asks for (:func:`block_layout`); every such
+    receptor holds the same values (no velocity there: wet deposition, dry components
+    missing), so :func:`workbench.blockreduce.reduce_blocks` copies this one to the
+    network's others."""
+    asked = set(args.get("receptors") or ())
+    return next((r for r in args.get("layout") or () if r not in asked), None)
+
+
+def block_layout(receptors, asked) -> tuple:
+    """The receptor axis of a block's results: the network's `receptors` that the block
+    asks for (`asked`) and the first one it does not ask for, in the network's order.
+
+    Holding every receptor of the network instead made each block's budget and monthly
+    budget several times its own receptors' (7 to 2-3 on the demo network), and every
+    block's result is held until the reduction: the run's peak grew with the network
+    (docs/performance.md, "The memory claims re-measured").
+
+    >>> block_layout(("a", "b", "c", "d"), ("c",))
+    ('a', 'c')
+    >>> block_layout(("a", "b"), ("a", "b"))
+    ('a', 'b')
+    """
+    asked = set(asked)
+    spare = next((r for r in receptors if r not in asked), None)
+    return tuple(r for r in receptors if r in asked or r == spare)
 
 
 def block_inputs(inputs, sites, load=True):
@@ -188,7 +221,9 @@ def run_blocks(study_or_inputs, wet_options=None, dry_options=None, budget_optio
                              inputs, receptors)
     blocks = [sites for sites, _ in wanted]
     # each block computes its own receptors and lays its budget on the network's
-    block_args = [{**args, "receptors": recs, "layout": tuple(receptors)} for _, recs in wanted]
+    # and one receptor none of its sites asks for (the reduction copies it to the others)
+    block_args = [{**args, "receptors": recs, "layout": block_layout(receptors, recs)}
+                  for _, recs in wanted]
     precip = inputs.precipitation
     psites = precip["site"].values.astype(str) if precip is not None else None
     positions = None
