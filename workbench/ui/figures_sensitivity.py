@@ -10,6 +10,7 @@ import re
 
 import pandas as pd
 
+from ..analysis.sensitivity_design import factor_label
 from .figures import from_spec, subplot_layout
 from .palette import OKABE_ITO, TEMPLATE
 
@@ -25,7 +26,9 @@ def _pick(frame, site, receptor, period, element, quantity):
 
 
 def _labels(frames) -> dict:
-    """factor -> its axis label: ``vd_NO2 (no data)`` where the rows' ``note`` says the
+    """factor -> its axis label in words with the unit (:func:`workbench.analysis.
+    sensitivity_design.factor_label`; the key is in the bars' hover): ``Vd of NO2
+    (multiplier) (no data)`` where the rows' ``note`` says the
     factor reaches only components without data at the site (any factor tied to a
     species: ``vd_``, ``fine_fraction_``, ``fine_mmd_``, ``rc_scale_``, ``nh3_gamma_``), ``(no effect)`` where it
     says the factor has nothing to act on (no bulk-collector samples).  Before, such a
@@ -36,9 +39,9 @@ def _labels(frames) -> dict:
             continue
         for factor, note in zip(frame["factor"], frame["note"].fillna("").astype(str)):
             if "for want of data" in note:
-                out[factor] = f"{factor} (no data)"
+                out[factor] = f"{factor_label(factor)} (no data)"
             elif note.startswith("no effect"):
-                out.setdefault(factor, f"{factor} (no effect)")
+                out.setdefault(factor, f"{factor_label(factor)} (no effect)")
     return out
 
 
@@ -83,8 +86,8 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
     s = _pick(sobol, site, receptor, period, element, quantity).sort_values("ST")
     t = _pick(tornado, site, receptor, period, element, quantity)
     label = _labels((s, t))
-    s = s.assign(factor=s["factor"].map(lambda f: label.get(f, f)))
-    t = t.assign(factor=t["factor"].map(lambda f: label.get(f, f)))
+    s = s.assign(key=s["factor"], factor=s["factor"].map(lambda f: label.get(f, factor_label(f))))
+    t = t.assign(key=t["factor"], factor=t["factor"].map(lambda f: label.get(f, factor_label(f))))
     lacks = _lacks((s, t))
     traces = []
     (x1, y1), (x2, y2) = axes
@@ -95,6 +98,9 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
         traces.append({"type": "bar", "orientation": "h", "name": name,
                        "width": SOBOL_BAR, "offset": offset,
                        "x": s[col].tolist(), "y": s["factor"].tolist(),
+                       "customdata": s["key"].tolist(),
+                       "hovertemplate": f"%{{y}} (option %{{customdata}}): {name} "
+                                        "%{x:.3f}<extra></extra>",
                        "error_x": {"type": "data", "array": s[f"{col}_conf"].tolist()},
                        "marker": {"color": colour}, "xaxis": x1.replace("axis", ""),
                        "yaxis": y1.replace("axis", "")})
@@ -109,8 +115,10 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
                                  ("output_high", "high", OKABE_ITO["vermillion"])):
             traces.append({"type": "bar", "orientation": "h", "name": f"factor {end}",
                            "base": base, "x": (t[col] - base).tolist(),
-                           "y": t["factor"].tolist(), "customdata": t[end].tolist(),
-                           "hovertemplate": f"%{{y}} {end} = %{{customdata}}: "
+                           "y": t["factor"].tolist(),
+                           "customdata": list(zip(t["key"].astype(str), t[end].astype(str))),
+                           "hovertemplate": f"%{{y}} (option %{{customdata[0]}}) {end} = "
+                                            "%{customdata[1]}: "
                                             f"%{{x:+.3g}} {unit}<extra></extra>",
                            "marker": {"color": colour}, "xaxis": x2.replace("axis", ""),
                            "yaxis": y2.replace("axis", "")})
