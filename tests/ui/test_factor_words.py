@@ -43,3 +43,26 @@ def test_sobol_figure_axis_in_words_key_in_hover():
     for trace in spec["data"]:
         assert trace["y"] == ["Vd of NH3 (multiplier)"]
         assert "vd_NH3" in str(trace["customdata"]) and "option" in trace["hovertemplate"]
+
+
+def test_sobol_figure_names_each_factor_once_in_short_lines():
+    """The words are longer than the keys: they wrap at spaces, and the tornado's rows
+    stand beside the same factor's Sobol bars (one axis of names; before, the tornado's
+    names ran into the Sobol panel, seen in a 540 px render)."""
+    from workbench.ui.figures_sensitivity import LABEL_CHARS, sensitivity_spec
+    keys = {"site": "a", "receptor": "grass", "period": "2021", "element": "N",
+            "quantity": "total"}
+    fs = ("precip_conc", "nh3_gamma_conifer_forest", "vd_NH3")
+    sob = pd.DataFrame([{**keys, "factor": f, "S1": 0.1 * i, "S1_conf": 0.0,
+                         "ST": 0.1 * i + 0.05, "ST_conf": 0.0} for i, f in enumerate(fs)])
+    tor = pd.DataFrame([{**keys, "factor": f, "low": "0.5", "high": "2", "base": "1",
+                         "output_low": 10.0 - i, "output_high": 10.0 + 3 * (2 - i),
+                         "output_base": 10.0} for i, f in enumerate(fs)])
+    spec = sensitivity_spec(sob, tor, "a", "grass", "2021", "N", "total")
+    lay = spec["layout"]
+    assert lay["yaxis2"]["showticklabels"] is False
+    assert lay["yaxis"]["categoryarray"] == lay["yaxis2"]["categoryarray"]
+    assert all(len(line) <= LABEL_CHARS for y in lay["yaxis"]["categoryarray"]
+               for line in y.split("<br>"))
+    assert "precipitation concentrations (multiplier)" in [
+        y.replace("<br>", " ") for y in lay["yaxis"]["categoryarray"]]

@@ -12,6 +12,7 @@ import pandas as pd
 
 from ..analysis.sensitivity_design import factor_label
 from .figures import from_spec, subplot_layout
+from .figures_budget import wrap_text
 from .palette import OKABE_ITO, TEMPLATE
 
 #: Thickness of each Sobol bar [fraction of a factor's row]: first order and total side
@@ -23,6 +24,10 @@ def _pick(frame, site, receptor, period, element, quantity):
     return frame[(frame["site"] == site) & (frame["receptor"] == receptor)
                  & (frame["period"].astype(str) == str(period)) & (frame["element"] == element)
                  & (frame["quantity"] == quantity)]
+
+
+#: Characters a line of a factor's name on the axis (wrapped at spaces beyond).
+LABEL_CHARS = 26
 
 
 def _labels(frames) -> dict:
@@ -80,14 +85,18 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
         output_unit`, is used when present).
     """
     from ..analysis.sensitivity_options import output_unit
-    layout_json, axes = subplot_layout(1, 2, horizontal_spacing=0.18,
+    layout_json, axes = subplot_layout(1, 2, horizontal_spacing=0.1,
                                        subplot_titles=("Sobol indices [1]", "One at a time"))
     layout = json.loads(layout_json)
     s = _pick(sobol, site, receptor, period, element, quantity).sort_values("ST")
     t = _pick(tornado, site, receptor, period, element, quantity)
     label = _labels((s, t))
-    s = s.assign(key=s["factor"], factor=s["factor"].map(lambda f: label.get(f, factor_label(f))))
-    t = t.assign(key=t["factor"], factor=t["factor"].map(lambda f: label.get(f, factor_label(f))))
+    # the factors in words, broken into short lines: one axis of names for both panels
+    # (the tornado's rows in the Sobol order), the key in each bar's hover
+    def words(f):
+        return wrap_text(label.get(f, factor_label(f)), LABEL_CHARS)
+    s = s.assign(key=s["factor"], factor=s["factor"].map(words))
+    t = t.assign(key=t["factor"], factor=t["factor"].map(words))
     lacks = _lacks((s, t))
     traces = []
     (x1, y1), (x2, y2) = axes
@@ -125,7 +134,10 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
         # the baseline as the tables write it ("1,890", not "1.89e+03")
         shown = f"{base:,.0f}" if abs(base) >= 1000 else f"{base:.3g}"
         layout[x2]["title"] = {"text": f"{unit} (base {shown})"}
-    layout.update({"barmode": "overlay", "height": 120 + 28 * max(len(s), len(t), 4),
+    # a row as tall as the most lines of a name (28 px held one line)
+    lines = 1 + max([f.count("<br>") for f in list(s["factor"]) + list(t["factor"])] or [0])
+    row = max(28, 14 * lines + 10)
+    layout.update({"barmode": "overlay", "height": 120 + row * max(len(s), len(t), 4),
                    "title": {"text": f"Sensitivity of {element} {quantity.replace('_', ' ')} · "
                                      f"{site} · "
                                      f"{receptor} · {period}"
@@ -135,6 +147,11 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
     # every axis named (the index axis had its panel's title only)
     layout[x1]["title"] = {"text": "Sobol index [1]"}
     layout[y1]["title"] = {"text": "factor"}
+    order = list(s["factor"]) + [f for f in t["factor"] if f not in set(s["factor"])]
+    layout[y1].update({"categoryorder": "array", "categoryarray": order, "automargin": True})
+    if len(s):      # the tornado's rows beside the same factor's Sobol bars, named once
+        layout[y2].update({"categoryorder": "array", "categoryarray": order,
+                           "showticklabels": False})
     if len(t) == 0:                 # no tornado rows: still say what the axis would hold
         layout[x2]["title"] = {"text": unit}
     return {"data": traces, "layout": layout}
