@@ -176,7 +176,7 @@ def test_a_factor_that_moves_nothing_is_exactly_0_in_the_file_and_tables(explain
     r = shares.iloc[0]
     for total in ("N_dry", "S_dry"):
         shown = shares_display(shares, r["receptor"], str(r["period"]), total)
-        row = shown.set_index("factor").loc["bulk_factor_rel_sd"]
+        row = shown.set_index("option").loc["bulk_factor_rel_sd"]
         assert row["share of the variance"] == 0.0 and row["share of the log-variance"] == 0.0
         vals = shown[["share of the variance", "share of the log-variance"]].to_numpy(float)
         assert not (np.signbit(vals) & (vals == 0)).any()

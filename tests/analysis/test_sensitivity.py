@@ -124,7 +124,9 @@ def test_figure_spec_has_sobol_bars_and_tornado():
     spec = sensitivity_spec(sob, tor, "a", "grass", "2021", "N", "total")
     names = [t["name"] for t in spec["data"]]
     assert names == ["first order", "total", "factor low", "factor high"]
-    assert spec["data"][1]["y"] == ["gauge_catch", "vd_NH3"]          # sorted by ST
+    # sorted by ST; words with the unit on the axis, the key in the hover
+    assert spec["data"][1]["y"] == ["gauge catch (multiplier)", "Vd of NH3 (multiplier)"]
+    assert spec["data"][1]["customdata"] == ["gauge_catch", "vd_NH3"]
     assert spec["data"][3]["x"] == [0.5, 4.0]                          # high - base
     assert spec["data"][2]["base"] == 10.0
     assert len(sensitivity_figure(sob, tor, "a", "grass", "2021").data) == 4
@@ -137,10 +139,10 @@ def test_sobol_explorer_shows_bars_and_tornado(tiny):
     app = SobolExplorer(Session.open(sc.path), output="S dry", samples=16)
     assert set(app.sobol["factor"]) == {"vd_SO2", "gauge_catch", "wetness_rule"}
     assert [t.name for t in app.fig.data] == ["first order", "total", "factor low", "factor high"]
-    assert "vd_SO2" in app.fig.data[0].y
+    assert "Vd of SO2 (multiplier)" in app.fig.data[0].y and "vd_SO2" in app.fig.data[0].customdata
     assert "engine runs" in app.bar_w.value                 # tqdm's bar, in the app
     app.output_w.value = "S wet"                             # redrawn from the same analysis
-    assert "gauge_catch" in app.fig.data[0].y
+    assert "gauge catch (multiplier)" in app.fig.data[0].y
 
 
 def test_scenario_saved_from_the_apps_keeps_the_analysis_sections(tiny, tmp_path):

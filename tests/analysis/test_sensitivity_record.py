@@ -89,8 +89,10 @@ def test_the_figure_labels_a_factor_without_data_and_a_partial_total():
                          "unit": "kg N ha-1 yr-1", "note": n} for f, _, b, n in rows])
     spec = sensitivity_spec(sob, tor, "fell", "grass", "2022", "N", "dry")
     for trace in spec["data"]:
-        assert "vd_NO2 (no data)" in trace["y"] and "vd_NH3" in trace["y"]
-        assert "gauge_catch" in trace["y"]             # a plain nil: no data note, no label
+        trace = {"y": [y.replace("<br>", " ") for y in trace["y"]]}   # names wrapped
+        assert "Vd of NO2 (multiplier) (no data)" in trace["y"]
+        assert "Vd of NH3 (multiplier)" in trace["y"]
+        assert "gauge catch (multiplier)" in trace["y"]             # a plain nil: no data note, no label
     assert spec["layout"]["title"]["text"].endswith(
         "(lacks NO2: indices of its measured part)")
 

@@ -76,5 +76,7 @@ def test_the_figure_labels_an_engine_factor_without_data():
                         for f, n in rows])
     spec = sensitivity_spec(sob, tor, "quill", "grass", "2021-02", "N", "dry")
     for trace in spec["data"]:
-        assert "fine_fraction_pNO3 (no data)" in trace["y"]
-        assert "rc_scale_NH3 (no data)" in trace["y"] and "vd_HNO3" in trace["y"]
+        trace = {"y": [y.replace("<br>", " ") for y in trace["y"]]}   # names wrapped
+        assert "fine-mode fraction of pNO3 [1] (no data)" in trace["y"]
+        assert "Rc of NH3 (multiplier) (no data)" in trace["y"]
+        assert "Vd of HNO3 (multiplier)" in trace["y"]

@@ -76,12 +76,15 @@ def test_demo_grid_shown_instead_of_a_scenario_without_grid_says_so(out, monkeyp
 @pytest.mark.parametrize("period", [5, "7", "2021-09", "july", -3, 1.5j])
 def test_a_period_the_grid_has_not_is_one_located_line(out, period):
     """The notebook's PERIOD out of range or mistyped: one InputError naming PERIOD and
-    the periods there are (before: IndexError or "'2021-09' is not in list" tracebacks)."""
+    the periods there are (before: IndexError or "'2021-09' is not in list" tracebacks),
+    as the notebook's variable set in its first cell (it read "column 'PERIOD'", as if
+    PERIOD were a column of a file)."""
     from workbench.errors import InputError
     with pytest.raises(InputError) as exc:
         grid_map_spec(out, "dry_N", period)
     assert str(exc.value) == (
-        f"column 'PERIOD': no such reporting period: got '{period}', expected a position "
+        f"PERIOD (set in the notebook's first cell): no such reporting period: got "
+        f"'{period}', expected a position "
         "0 to 1 or a label of the 2 period(s): 0 ('2021-07'), 1 ('2021-08')")
 
 

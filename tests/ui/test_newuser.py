@@ -118,7 +118,7 @@ def test_nh3_share_under_one_percent_has_a_decimal(ridge_app):
         text = app.nh3_w.value
         share = re.search(r"emission offsets (-?[\d.]+) %", text)
         assert share, text
-        net = _number_after(text, "Dry NH3")
+        net = _number_after(text, r"Dry NH3 \(as N\):")
         if abs(float(share.group(1))) < 1:
             assert "." in share.group(1)
         assert float(share.group(1)) != 0.0 or net == 0.0

@@ -42,14 +42,18 @@ def test_display_orders_factors_and_names_parts():
         "log_variance_share": [1.0, 0.1, 0.005, 0.05, 0.85, 0.05],
         "alone_p05": 1.0, "alone_p50": 2.0, "alone_p95": 3.0, "unit": "kg ha-1"})
     shown = shares_display(s, "grass", "2021", "N_dry")
-    assert _rows(shown) == [ROW_NAMES["all"], "vd_site_gsd", "vd_gsd", "  of which NH3",
+    assert _rows(shown) == [ROW_NAMES["all"], "Vd factor of each site (geometric sd)",
+                            "Vd model factor (geometric sd)", "  of which NH3",
                             "  of which NO2", ROW_NAMES["together"]]
+    assert list(shown["option"]) == ["", "vd_site_gsd", "vd_gsd", "vd_gsd.NH3",
+                                     "vd_gsd.NO2", ""]
     assert "5 % alone [kg N/ha]" in shown.columns
     assert shares_display(s, "grass", "2021", "S_dry").empty
     # an N species' part is not listed under a total of S
     s_dry = s.assign(total="S_dry")
     assert _rows(shares_display(s_dry, "grass", "2021", "S_dry")) == [
-        ROW_NAMES["all"], "vd_site_gsd", "vd_gsd", ROW_NAMES["together"]]
+        ROW_NAMES["all"], "Vd factor of each site (geometric sd)",
+        "Vd model factor (geometric sd)", ROW_NAMES["together"]]
 
 
 def test_nothing_is_computed_before_the_button(app):

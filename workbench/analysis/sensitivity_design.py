@@ -62,6 +62,67 @@ def factor_text(name: str) -> str:
     return (words.format(x=name[len(prefix):]) + (f" {unit}" if unit else "")).strip()
 
 
+#: The Monte Carlo's drawn factors (:data:`workbench.analysis.variance_shares.FACTORS`,
+#: options of ``[uncertainty]``) in words with their unit, as tables and figures name them.
+DRAWN_TEXT = {"vd_gsd": "Vd model factor (geometric sd)",
+              "vd_site_gsd": "Vd factor of each site (geometric sd)",
+              "air_rel_sd": "analysis of air concentrations (relative sd)",
+              "lab_bias_air_rel_sd": "lab bias of air concentrations (relative sd)",
+              "censored_rel_sd": "values below detection (relative sd)",
+              "vd_fill_rel_sd": "gap-filled Vd (relative sd)",
+              "precip_conc_rel_sd": "analysis of precipitation concentrations (relative sd)",
+              "lab_bias_precip_rel_sd": "lab bias of precipitation concentrations "
+                                        "(relative sd)",
+              "gauge_catch_rel_sd": "gauge catch (relative sd)",
+              "depth_rel_sd": "reading of precipitation depths (relative sd)",
+              "pwm_fill_rel_sd": "gap-filled precipitation-weighted means (relative sd)",
+              "bulk_factor_rel_sd": "bulk collector's wet-only / bulk ratio (relative sd)",
+              "nh3_gamma_gsd": "NH3 emission potential Gamma_s (geometric sd)",
+              "pair_shift_nitrate": "gas/particle split of HNO3/pNO3 (share moved) [1]",
+              "pair_shift_ammonium": "gas/particle split of NH3/pNH4 (share moved) [1]"}
+#: A Sobol factor's short words by kind (the long ones: :func:`factor_text`).
+SHORT_TEXT = {"gauge_catch": "gauge catch (multiplier)",
+              "precip_conc": "precipitation concentrations (multiplier)",
+              "air_conc": "air concentrations (multiplier)",
+              "bulk_wet_factor": "wet-only / bulk ratio (multiplier)",
+              "vd": "Vd of {x} (multiplier)",
+              "wetness_rule": "surface-wetness rule",
+              "fine_fraction": "fine-mode fraction of {x} [1]",
+              "fine_mmd": "fine-mode diameter of {x} [m]",
+              "z0": "roughness length of {x} [m]",
+              "rc_scale": "Rc of {x} (multiplier)",
+              "nh3_gamma": "NH3 Gamma_s of {x} (multiplier)"}
+
+
+def factor_label(name: str) -> str:
+    """Short words with the unit of a factor, for a table's row or a figure's axis: a
+    Sobol factor (``vd_NH3``, ``z0_grass``), a Monte Carlo factor (``vd_gsd``,
+    ``lab_bias_air_rel_sd``) or a Vd species' part (``vd_gsd.NH3``); the name itself
+    where it is none of these.
+
+    >>> factor_label("lab_bias_air_rel_sd"), factor_label("vd_NH3")
+    ('lab bias of air concentrations (relative sd)', 'Vd of NH3 (multiplier)')
+    >>> factor_label("vd_gsd.NH3")
+    'Vd model factor (geometric sd) of NH3'
+    """
+    name = str(name)
+    if name in DRAWN_TEXT:
+        return DRAWN_TEXT[name]
+    head, dot, sp = name.partition(".")
+    if dot and head in DRAWN_TEXT:
+        return f"{DRAWN_TEXT[head]} of {sp}"
+    try:
+        kind = factor_kind(name)
+    except ValueError:
+        return name
+    if kind == "linear":
+        return (SHORT_TEXT["vd"].format(x=name[3:]) if name.startswith("vd_")
+                else SHORT_TEXT.get(name, name))
+    prefix = {"fine_fraction": "fine_fraction_", "fine_mmd": "fine_mmd_", "z0": "z0_",
+              "rc_scale": "rc_scale_", "nh3_gamma": "nh3_gamma_"}.get(kind, "")
+    return SHORT_TEXT[kind].format(x=name[len(prefix):].replace("_", " "))
+
+
 def range_text(name, rng) -> str:
     """The range of factor `name` as read: ``0.5 to 2``, or the rules of a list."""
     if factor_kind(name) == "wetness_rule":

@@ -118,13 +118,14 @@ def serial_text(p_corrected: float, n_years: int, held: bool = False) -> str:
 
 
 def trend_unit(element: str, unit: str) -> str:
-    """The unit of a yearly rate of `element` as a trend's text says it.
+    """The unit of a yearly rate of `element` as a trend's text says it
+    (:func:`workbench.ui.summaries_budget.rate_unit`).
 
     >>> trend_unit("S", "kg/ha/yr"), trend_unit("N", "eq/ha/yr"), trend_unit("N", "mmol/m2/yr")
     ('kg S/ha/yr', 'eq/ha/yr', 'mmol N/m2/yr')
     """
-    amount, _, rest = unit.partition("/")
-    return f"{amount} {element}/{rest}" if amount in ("kg", "mmol") else unit
+    from .summaries_budget import rate_unit
+    return rate_unit(element, unit)
 
 
 def totals_status(table, receptor) -> str:

@@ -99,10 +99,34 @@ def bracket_line(years: xr.Dataset, derived, site, receptor, unit="kg/ha/yr",
         return (f"{head}; gas/particle bracket not computed for these years ({why}); "
                 "the dry N shown stands.")
     part = "" if b["computed"] else " (over the years where it could be computed)"
+    caught = _bulk_caught(years, site, receptor)
+    why0 = {"all": "; caught by the bulk collector: particles are counted in the wet "
+                   "deposition, so 0 here",
+            "some": "; in the years of the bulk collector caught by it: particles are "
+                    "counted in the wet deposition there"}.get(caught, "")
     return (f"{head}; gas/particle bracket {_fmt(b['all_particle'])} (each HNO3/pNO3 and "
-            f"NH3/pNH4 pair all as particle) to {_fmt(b['all_gas'])} (all as gas){part}: "
+            f"NH3/pNH4 pair all as particle{why0}) to {_fmt(b['all_gas'])} (all as gas){part}: "
             "filters split ammonium nitrate between the phases, and the gas deposits "
             "faster.")
+
+
+#: How the budget's note of an all-particle bracket begins where the bulk collector
+#: caught it (:func:`workbench.budgetstatus.bulk_caught_brackets`).
+BULK_CAUGHT = "caught by the bulk collector"
+
+
+def _bulk_caught(years: xr.Dataset, site, receptor) -> str:
+    """``"all"`` where every all-particle bracket of every period of `years` is noted as
+    caught by the bulk collector (docs/budget.md, bulk collectors), ``"some"`` where
+    some periods are, ``""`` otherwise."""
+    names = [v for v in years.variables
+             if v.startswith("bracket_") and v.endswith("_all_particle_note")]
+    if not names:
+        return ""
+    hit = np.stack([np.char.startswith(
+        years[v].sel(site=site, receptor=receptor).values.astype(str), BULK_CAUGHT)
+        for v in names])
+    return "all" if hit.all() else "some" if hit.any() else ""
 
 
 def _unmeasured_members(years: xr.Dataset, site, receptor, reason="not measured") -> list:

@@ -39,6 +39,11 @@ def _aux(ds, standard_name, shape):
     return np.full(shape, np.nan)
 
 
+#: The problem of a bad ``PERIOD``: a variable of the notebook, not a column of a file
+#: (the message said "column 'PERIOD'").
+NO_PERIOD = "PERIOD (set in the notebook's first cell): no such reporting period"
+
+
 def period_position(ds, period) -> int:
     """Position of reporting period `period` (a position, negative from the end, or a
     label) in ``grid.nc`` `ds`.
@@ -57,15 +62,15 @@ def period_position(ds, period) -> int:
     if isinstance(period, str) and not period.strip().lstrip("-").isdigit():
         if period.strip() in labels:
             return labels.index(period.strip())
-        raise InputError("no such reporting period", column="PERIOD", value=period,
+        raise InputError(NO_PERIOD, value=period,
                          expected=expected)
     try:
         k = int(period)
     except (TypeError, ValueError):
-        raise InputError("no such reporting period", column="PERIOD", value=period,
+        raise InputError(NO_PERIOD, value=period,
                          expected=expected) from None
     if not -n <= k < n:
-        raise InputError("no such reporting period", column="PERIOD", value=period,
+        raise InputError(NO_PERIOD, value=period,
                          expected=expected)
     return k % n
 

@@ -10,7 +10,9 @@ import re
 
 import pandas as pd
 
+from ..analysis.sensitivity_design import factor_label
 from .figures import from_spec, subplot_layout
+from .figures_budget import wrap_text
 from .palette import OKABE_ITO, TEMPLATE
 
 #: Thickness of each Sobol bar [fraction of a factor's row]: first order and total side
@@ -24,8 +26,14 @@ def _pick(frame, site, receptor, period, element, quantity):
                  & (frame["quantity"] == quantity)]
 
 
+#: Characters a line of a factor's name on the axis (wrapped at spaces beyond).
+LABEL_CHARS = 26
+
+
 def _labels(frames) -> dict:
-    """factor -> its axis label: ``vd_NO2 (no data)`` where the rows' ``note`` says the
+    """factor -> its axis label in words with the unit (:func:`workbench.analysis.
+    sensitivity_design.factor_label`; the key is in the bars' hover): ``Vd of NO2
+    (multiplier) (no data)`` where the rows' ``note`` says the
     factor reaches only components without data at the site (any factor tied to a
     species: ``vd_``, ``fine_fraction_``, ``fine_mmd_``, ``rc_scale_``, ``nh3_gamma_``), ``(no effect)`` where it
     says the factor has nothing to act on (no bulk-collector samples).  Before, such a
@@ -36,9 +44,9 @@ def _labels(frames) -> dict:
             continue
         for factor, note in zip(frame["factor"], frame["note"].fillna("").astype(str)):
             if "for want of data" in note:
-                out[factor] = f"{factor} (no data)"
+                out[factor] = f"{factor_label(factor)} (no data)"
             elif note.startswith("no effect"):
-                out.setdefault(factor, f"{factor} (no effect)")
+                out.setdefault(factor, f"{factor_label(factor)} (no effect)")
     return out
 
 
@@ -77,14 +85,18 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
         output_unit`, is used when present).
     """
     from ..analysis.sensitivity_options import output_unit
-    layout_json, axes = subplot_layout(1, 2, horizontal_spacing=0.18,
+    layout_json, axes = subplot_layout(1, 2, horizontal_spacing=0.1,
                                        subplot_titles=("Sobol indices [1]", "One at a time"))
     layout = json.loads(layout_json)
     s = _pick(sobol, site, receptor, period, element, quantity).sort_values("ST")
     t = _pick(tornado, site, receptor, period, element, quantity)
     label = _labels((s, t))
-    s = s.assign(factor=s["factor"].map(lambda f: label.get(f, f)))
-    t = t.assign(factor=t["factor"].map(lambda f: label.get(f, f)))
+    # the factors in words, broken into short lines: one axis of names for both panels
+    # (the tornado's rows in the Sobol order), the key in each bar's hover
+    def words(f):
+        return wrap_text(label.get(f, factor_label(f)), LABEL_CHARS)
+    s = s.assign(key=s["factor"], factor=s["factor"].map(words))
+    t = t.assign(key=t["factor"], factor=t["factor"].map(words))
     lacks = _lacks((s, t))
     traces = []
     (x1, y1), (x2, y2) = axes
@@ -95,6 +107,9 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
         traces.append({"type": "bar", "orientation": "h", "name": name,
                        "width": SOBOL_BAR, "offset": offset,
                        "x": s[col].tolist(), "y": s["factor"].tolist(),
+                       "customdata": s["key"].tolist(),
+                       "hovertemplate": f"%{{y}} (option %{{customdata}}): {name} "
+                                        "%{x:.3f}<extra></extra>",
                        "error_x": {"type": "data", "array": s[f"{col}_conf"].tolist()},
                        "marker": {"color": colour}, "xaxis": x1.replace("axis", ""),
                        "yaxis": y1.replace("axis", "")})
@@ -109,15 +124,20 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
                                  ("output_high", "high", OKABE_ITO["vermillion"])):
             traces.append({"type": "bar", "orientation": "h", "name": f"factor {end}",
                            "base": base, "x": (t[col] - base).tolist(),
-                           "y": t["factor"].tolist(), "customdata": t[end].tolist(),
-                           "hovertemplate": f"%{{y}} {end} = %{{customdata}}: "
+                           "y": t["factor"].tolist(),
+                           "customdata": list(zip(t["key"].astype(str), t[end].astype(str))),
+                           "hovertemplate": f"%{{y}} (option %{{customdata[0]}}) {end} = "
+                                            "%{customdata[1]}: "
                                             f"%{{x:+.3g}} {unit}<extra></extra>",
                            "marker": {"color": colour}, "xaxis": x2.replace("axis", ""),
                            "yaxis": y2.replace("axis", "")})
         # the baseline as the tables write it ("1,890", not "1.89e+03")
         shown = f"{base:,.0f}" if abs(base) >= 1000 else f"{base:.3g}"
         layout[x2]["title"] = {"text": f"{unit} (base {shown})"}
-    layout.update({"barmode": "overlay", "height": 120 + 28 * max(len(s), len(t), 4),
+    # a row as tall as the most lines of a name (28 px held one line)
+    lines = 1 + max([f.count("<br>") for f in list(s["factor"]) + list(t["factor"])] or [0])
+    row = max(28, 14 * lines + 10)
+    layout.update({"barmode": "overlay", "height": 120 + row * max(len(s), len(t), 4),
                    "title": {"text": f"Sensitivity of {element} {quantity.replace('_', ' ')} · "
                                      f"{site} · "
                                      f"{receptor} · {period}"
@@ -127,6 +147,11 @@ def sensitivity_spec(sobol: pd.DataFrame, tornado: pd.DataFrame, site, receptor,
     # every axis named (the index axis had its panel's title only)
     layout[x1]["title"] = {"text": "Sobol index [1]"}
     layout[y1]["title"] = {"text": "factor"}
+    order = list(s["factor"]) + [f for f in t["factor"] if f not in set(s["factor"])]
+    layout[y1].update({"categoryorder": "array", "categoryarray": order, "automargin": True})
+    if len(s):      # the tornado's rows beside the same factor's Sobol bars, named once
+        layout[y2].update({"categoryorder": "array", "categoryarray": order,
+                           "showticklabels": False})
     if len(t) == 0:                 # no tornado rows: still say what the axis would hold
         layout[x2]["title"] = {"text": unit}
     return {"data": traces, "layout": layout}

@@ -17,6 +17,7 @@ import numpy as np
 import pandas as pd
 
 from ..analysis.range_shares import READ_TEXT, of_own_element
+from ..analysis.sensitivity_design import factor_label
 from ..units import element_deposition_in
 from .controls import table_html
 
@@ -52,8 +53,10 @@ def shares_display(shares: pd.DataFrame, receptor, period, total, eq=False) -> p
     Returns
     -------
     pandas.DataFrame
-        ``factor`` (a Vd species' part as "of which <species>", the species of the
-        total's element only), the shares of the
+        ``factor`` in words with its unit
+        (:func:`workbench.analysis.sensitivity_design.factor_label`; a Vd species' part
+        as "of which <species>", the species of the total's element only), ``option``
+        (the factor's key in ``[uncertainty]``, "" for the rows of no factor), the shares of the
         log-variance and of the variance [1], the 5, 50 and 95 % of the total with that
         factor alone drawn [the unit of `shares`, in the headings]; the factors by
         log-variance share, largest first, between the ``all`` and ``together`` rows.
@@ -80,10 +83,12 @@ def shares_display(shares: pd.DataFrame, receptor, period, total, eq=False) -> p
         rows.append(parts.sort_values("log_variance_share", ascending=False, kind="stable"))
     rows.append(s[s["factor"] == "together"])
     s = pd.concat(rows)
-    label = [ROW_NAMES.get(f, f"  of which {f.split('.', 1)[1]}" if of else f)
+    label = [ROW_NAMES.get(f, f"  of which {f.split('.', 1)[1]}" if of else factor_label(f))
              for f, of in zip(s["factor"], s["part_of"].fillna("").astype(str))]
     return pd.DataFrame({
         "factor": label,
+        # the option's key beside its words, so that a user finds it in [uncertainty]
+        "option": ["" if f in ROW_NAMES else f for f in s["factor"]],
         "share of the log-variance": np.round(s["log_variance_share"].to_numpy(float), 3),
         "share of the variance": np.round(s["variance_share"].to_numpy(float), 3),
         f"5 % alone [{unit}]": np.round(scale * s["alone_p05"].to_numpy(float), 3),

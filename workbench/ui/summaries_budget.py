@@ -49,6 +49,17 @@ def axis_text(unit: str, monthly: bool = False, element: str | None = None) -> s
     return text.format(el=element if element else "S / N")
 
 
+def rate_unit(element: str, unit: str) -> str:
+    """The unit of a yearly rate of `element` as a sentence says it: the element after
+    an amount that is one of that element, none after an equivalent (charge).
+
+    >>> rate_unit("S", "kg/ha/yr"), rate_unit("N", "eq/ha/yr"), rate_unit("N", "mmol/m2/yr")
+    ('kg S/ha/yr', 'eq/ha/yr', 'mmol N/m2/yr')
+    """
+    amount, _, rest = unit.partition("/")
+    return f"{amount} {element}/{rest}" if amount in ("kg", "mmol") else unit
+
+
 def to_unit(amount, element, unit: str):
     """Deposition of an element [mol m-2] in a reported unit (see :data:`UNITS`)."""
     return element_deposition_in(amount, element, UNITS[unit][0])
@@ -247,7 +258,8 @@ def nh3_line(ds: xr.Dataset, site, receptor, unit="kg/ha/yr") -> str:
         return "Dry NH3: no figure (no NH3 concentrations in these years)."
     mo = float(np.nanmean(only))
     if ds.attrs.get("nh3_figure") != "net" or not np.isfinite(net).any():
-        return (f"Dry NH3 {_fmt(mo)} {unit} N: deposition only (emission not modelled; "
+        return (f"Dry NH3 (as N): {_fmt(mo)} {rate_unit('N', unit)}, deposition only "
+                "(emission not modelled; "
                 "'NH3 exchange' under 'ammonia' gives the net).")
     mn = float(np.nanmean(net))
     pct = 100.0 * (mo - mn) / mo if mo > 0 else float("nan")
@@ -256,8 +268,9 @@ def nh3_line(ds: xr.Dataset, site, receptor, unit="kg/ha/yr") -> str:
         share = f"emission offsets {pct:.1f} %" if abs(pct) < 1 else f"emission offsets {pct:.0f} %"
     else:       # no share of a deposition of 0 (it read "offsets n/a" without a reason)
         share = "no share offset by emission (no percent: the deposition only is 0)"
-    return (f"Dry NH3 {_fmt(mn)} {unit} N net (deposition - emission) against {_fmt(mo)} "
-            f"deposition only: {share}; the bars and the N totals use the net.")
+    return (f"Dry NH3 (as N): {_fmt(mn)} {rate_unit('N', unit)} net (deposition - emission) "
+            f"against {_fmt(mo)} deposition only: {share}; the bars and the N totals use "
+            "the net.")
 
 
 def monthly_amounts(ds_month: xr.Dataset, site, receptor, unit="kg/ha/yr") -> pd.DataFrame:
