@@ -29,8 +29,10 @@ BUDGET_PLOT = ".jp-OutputArea .widget-vbox > .js-plotly-plot"
 #: The open tab's plot (monthly fluxes when the explorer opens), in the box of its tab
 #: page (workbench.ui.figure_open.page: a reopened figure keeps its old drawing in that
 #: box until the new one has drawn; the wait below polls until the new titles show).
+#: Any depth below the open page: a page may hold its figure's box beside a note (the
+#: monthly page, the excluded samples' page).
 TAB_PLOT = (".jp-OutputArea .widget-tab-contents > .widget-vbox:not(.lm-mod-hidden) "
-            "> .js-plotly-plot")
+            ".js-plotly-plot")
 
 
 def _wait_titles(page, tmp_path, sel, text, key="y"):
