@@ -126,9 +126,15 @@ def test_figures_in_the_site_explorers_tabs_sit_in_a_box_of_their_own(session):
     app = SiteExplorer(session, site="ridge", years=(2021, 2021))
     for child in app.tabs.children:
         assert not isinstance(child, go.FigureWidget)
-    holders = [c for c in app.tabs.children
-               if isinstance(c, widgets.VBox) and any(f is c.children[0] for f in app.figs.values())]
+    # a page may hold its figure's box beside a note (monthly fluxes, excluded samples):
+    # the figure's own box is looked for at any depth of the page
+    holders = [b for c in app.tabs.children for b in _boxes(c)
+               if isinstance(b, widgets.VBox) and b.children
+               and any(f is b.children[0] for f in app.figs.values())]
     assert len(holders) >= 5
+    for name in ("monthly fluxes", "excluded samples"):
+        fig = app.figs[name]
+        assert any(b.children == (fig,) for c in app.tabs.children for b in _boxes(c)), name
 
 
 def _boxes(w):
