@@ -214,7 +214,7 @@ def elevation_feet_reason(median_pa, expected_pa, elevation_m) -> str:
     [text] (flagged, values kept: the pressure is right, the elevation is not).
 
     >>> elevation_feet_reason(96.2e3, 86.0e3, 1378.0)[:80]
-    'pressure median 962 hPa, 1.12x the 860 hPa expected at elevation_m = 1378: it f'
+    'pressure median 962 hPa, 1.12x the 860 hPa expected at elevation_m = 1378: it fi'
     """
     m = float(elevation_m) * FOOT_M
     return (f"pressure median {float(median_pa) / 100:.0f} hPa, "
