@@ -9,23 +9,16 @@ import re
 import pandas as pd
 import pytest
 
-from workbench.cli import main
 from workbench.column_labels import COLUMN_LABELS
 from workbench.report import plain
-
-from ui.demo_subset import write_demo_subset
 
 #: Columns a table of the report heads in its own words (the rest: COLUMN_LABELS).
 OWN_WORDS = {"flux_kg_ha"}
 
 
 @pytest.fixture(scope="module")
-def run(tmp_path_factory):
-    tmp = tmp_path_factory.mktemp("headers")
-    scenario = write_demo_subset(tmp / "in", ("ridge", "mere"), 2020, 2021)
-    out = tmp / "out"
-    assert main(["run", str(scenario), "--out", str(out), "--quiet"]) == 0
-    return out
+def run(two_site_run):
+    return two_site_run         # tests/conftest.py: one run for this module and others
 
 
 def _csv_columns(folder) -> set:

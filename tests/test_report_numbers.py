@@ -10,10 +10,7 @@ import re
 import pandas as pd
 import pytest
 
-from workbench.cli import main
 from workbench.report_numbers import is_quantity, name_text, number
-
-from ui.demo_subset import write_demo_subset
 
 
 def test_number_separates_the_thousands_of_a_quantity():
@@ -54,12 +51,9 @@ def test_sentences_of_the_report_separate_their_counts():
 
 
 @pytest.fixture(scope="module")
-def report(tmp_path_factory):
-    tmp = tmp_path_factory.mktemp("numbers")
-    scenario = write_demo_subset(tmp / "in", ("ridge", "mere"), 2020, 2021)
-    out = tmp / "out"
-    assert main(["run", str(scenario), "--out", str(out), "--quiet"]) == 0
-    return (out / "report.html").read_text(encoding="utf-8")
+def report(two_site_run):
+    # tests/conftest.py: the run shared with tests/test_report_headers.py
+    return (two_site_run / "report.html").read_text(encoding="utf-8")
 
 
 def test_report_counts_its_input_rows_with_separators(report):
