@@ -77,6 +77,25 @@ def test_category_from_lai_rules():
     assert cat.tolist() == list(range(12)) and (src == 0).all()
 
 
+@pytest.mark.parametrize("lo, hi", [(0.5, 5.0), (2.5, 5.0), (1.0, 2.5), (0.1, 3.5),
+                                     (1.0, 2.0), (0.5, 3.0), (0.1, 1.0), (0.6, 2.4)])
+def test_category_from_lai_on_the_seasonal_cosine_does_not_hang_on_rounding(lo, hi):
+    # The seasonal cosine (landuse.seasonal_lai, peak in July) puts a month's share of
+    # the year's LAI range at (1 + cos(2 pi (m - 7)/12))/2, exactly 1/4 in March and
+    # November and 3/4 in May and September (cos(2 pi/3) = -1/2, cos(pi/3) = 1/2:
+    # trigonometry), so the documented rule (share >= 0.75 lush, <= 0.25 dormant; ours,
+    # docs/methods_dry.md section 7) gives the same twelve categories for every LAI
+    # range.  The code before gave March 5 and November 2 for five of the default ranges
+    # (shares of 0.2500000000000001 in floating point) and 3 for the others, and May 5
+    # and September 2 for a site's 0.6-2.4 (0.7499999999999999).
+    from workbench import landuse
+    share = [(1 + np.cos(2 * np.pi * (m - 7) / 12)) / 2 for m in range(1, 13)]
+    assert share[2] == pytest.approx(0.25) and share[4] == pytest.approx(0.75)
+    lai = landuse.seasonal_lai(lo, hi, np.arange(1, 13), 54.5)
+    cat, _ = seasons.category_from_lai(lai, np.full(12, 9.0))
+    assert cat.astype(int).tolist() == [3, 3, 3, 5, 1, 1, 1, 1, 1, 2, 3, 3]
+
+
 def test_surface_state_season_through_the_engine(synthetic):
     surf, met = synthetic
     lai = surf["lai"].copy()

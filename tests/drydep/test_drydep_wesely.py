@@ -27,6 +27,19 @@ def test_stomatal_response_by_hand():
         100 * (1 + (200 / 200.1) ** 2), rel=1e-12)
 
 
+@pytest.mark.parametrize("tc", [0.2, 0.5, 0.9, 39.5])
+def test_stomatal_response_near_the_temperature_limits_by_hand(tc):
+    # Wesely (1989), Eq. 3, written out by hand: r_s = r_i [1 + (200/(G + 0.1))^2]
+    # [400/(Ts (40 - Ts))] for 0 < Ts < 40 degC, with no other bound on Ts (from memory).
+    # At Ts = 0.5 degC, G = 200 W/m2, r_i = 250 s/m (Table 1, conifer, category 3):
+    # 250 * 1.9990 * 400/(0.5 * 39.5) = 10 121 s/m.  The code clipped Ts to 1-39 degC
+    # before and gave 5 125 s/m there (stomata twice as open as the equation's).
+    ri, g = 250.0, 200.0
+    want = ri * (1 + (200 / (g + 0.1)) ** 2) * 400 / (tc * (40 - tc))
+    assert w.stomatal_resistance(ri, g, 273.15 + tc) == pytest.approx(want, rel=1e-9)
+    assert 250 * 1.999 * 400 / (0.5 * 39.5) == pytest.approx(10121, rel=1e-4)  # the hour above
+
+
 @pytest.mark.parametrize("land_use", VEGETATED)
 def test_stomata_closed_at_night_and_in_frost(land_use):
     day = rc("O3", land_use, solar=600.0)["stomatal"]

@@ -40,6 +40,8 @@ SEASON_RULES = ("month", "surface_state")
 #: by the sign of the LAI change (ours, documented in docs/methods_dry.md).
 LUSH_SHARE = 0.75
 DORMANT_SHARE = 0.25
+#: Decimals the LAI share is rounded to before the thresholds (numerical device) [-].
+SHARE_DECIMALS = 9
 #: Codes of ``seasonal_source``.
 SOURCE = {0: "month and latitude", 1: "after first autumn frost", 2: "snow and frozen",
           3: "set by the user", 4: "leaf-area index of the site's surface"}
@@ -314,7 +316,12 @@ def category_from_lai(monthly_lai, month_category):
     lo, hi = np.nanmin(lai, axis=-1, keepdims=True), np.nanmax(lai, axis=-1, keepdims=True)
     span = hi - lo
     varies = np.isfinite(span) & (span > 0)
-    share = (lai - lo) / np.where(varies, span, 1.0)
+    # rounded to 1e-9 so that a month exactly on a threshold falls on the documented
+    # side whatever the last bit: the seasonal cosine puts March, May, September and
+    # November at shares of exactly 0.25 and 0.75, which came out as 0.2500000000000001
+    # or 0.7499999999999999 for some LAI ranges and not for others (a month's category
+    # then depended on the class's LAI range through rounding alone)
+    share = np.round((lai - lo) / np.where(varies, span, 1.0), SHARE_DECIMALS)
     rising = np.roll(lai, -1, axis=-1) > np.roll(lai, 1, axis=-1)
     cat = np.where(share >= LUSH_SHARE, float(MIDSUMMER),
                    np.where(share <= DORMANT_SHARE, float(LATE_AUTUMN),

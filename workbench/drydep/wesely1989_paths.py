@@ -129,7 +129,11 @@ def stomatal_resistance(ri, solar_radiation, temperature):
     """
     ts = temperature - ZERO_CELSIUS
     open_ = (ts > 0.0) & (ts < RS_T_MAX)
-    ts_in = np.clip(ts, 1.0, RS_T_MAX - 1.0)
+    # Eq. (3) as published over the whole open range 0 < Ts < 40 degC (finite there):
+    # closed hours take a stand-in temperature only to keep the arithmetic quiet.
+    # (It clipped Ts to 1-39 degC before, which opened the stomata up to 5 times
+    # wider than Eq. (3) between 0 and 1 degC.)
+    ts_in = where(open_, ts, RS_T_MAX / 2.0)
     rs = ri * (1.0 + (RS_LIGHT / (solar_radiation + RS_LIGHT_OFFSET)) ** 2) * (
         RS_T_FACTOR / (ts_in * (RS_T_MAX - ts_in)))
     rs = where(open_, rs, np.inf)
