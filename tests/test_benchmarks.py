@@ -42,6 +42,27 @@ def test_ui_latency_times_the_controls_asked_for(scenario, tmp_path, capsys):
     assert "slowest cold median" in capsys.readouterr().out
 
 
+def test_export_benchmark_sizes_the_figures_and_times_the_session(scenario, tmp_path, capsys):
+    """benchmarks/export_figures.py (docs/performance.md, "Export figures"): the figures
+    of the site explorer, their sizes and one session's time; skipped without kaleido
+    or a Chrome/Chromium."""
+    import plotly.graph_objects as go
+    from workbench.ui.export import ExportError, export_figure
+    try:
+        export_figure(go.Figure(), tmp_path / "probe.png")
+    except ExportError as exc:
+        pytest.skip(f"PNG export cannot run here: {exc}")
+    bench = _load("export_figures")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        out = bench.main(["--scenario", str(scenario), "--repeat", "1",
+                          "--cases", "sizes", "together"])
+    assert len(out["figures"]) >= 7 and set(out["sizes"]) == set(out["figures"])
+    assert all(s["png_bytes"] > 0 and s["json_bytes"] > 0 for s in out["sizes"].values())
+    assert out["together_s"]["median"] > 0 and "alone_s" not in out
+    assert "load average" in capsys.readouterr().out
+
+
 def test_velocities_benchmark_prints_its_sections(scenario, capsys):
     bench = _load("velocities")
     bench.main(["--scenario", str(scenario), "--repeat", "1"])

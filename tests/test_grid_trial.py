@@ -327,7 +327,7 @@ def test_verify_of_a_grid_run_folder_moved_whole(tmp_path, capsys, monkeypatch):
     capsys.readouterr()
     assert main(["verify", "unpacked/runs/grid"]) == 0
     text = capsys.readouterr().out
-    assert "outputs: the 1 file (grid.nc) is as written" in text
+    assert "outputs: the 1 file besides provenance.json (grid.nc) is as written" in text
     for role, name in (("met", "met.nc"), ("air", "air.nc"), ("land_use", "land_use.nc")):
         assert f"input {role} ({name}): as at the run" in text
     assert "result: the run folder matches its scenario and inputs" in text

@@ -23,8 +23,9 @@ def _describe(monkeypatch, starts, resolution, years):
 
 def test_periods_line_says_what_the_year_count_is(monkeypatch):
     line = _describe(monkeypatch, ["2021-03-01", "2021-04-01", "2021-05-01"], "month", 1)
-    assert line == ("periods: 2 month periods from 2021-03-01 00:00:00 to 2021-05-01 "
-                    "00:00:00; whole-span totals over 1 calendar year"), line
+    # minutes and UTC, as the lines of the inputs (it read "2021-03-01 00:00:00")
+    assert line == ("periods: 2 month periods from 2021-03-01T00:00 to 2021-05-01T00:00 "
+                    "UTC; whole-span totals over 1 calendar year"), line
     assert "(1 years)" not in line
     line = _describe(monkeypatch, ["2016-01-01", "2017-01-01", "2018-01-01"], "year", 2)
     assert line.endswith("whole-span totals over 2 calendar years"), line

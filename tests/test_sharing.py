@@ -186,7 +186,7 @@ def test_compare_lists_the_option_and_the_totals_that_changed(tmp_path, capsys):
     table = tmp_path / "changes.csv"
     assert main(["compare", str(run_a), str(run_b), "--csv", str(table)]) == 1
     out = capsys.readouterr().out
-    assert "options (1 differ):\n  dry.fixed_velocity.SO2: 0.5 in A, 0.8 in B" in out
+    assert "options (1 differs):\n  dry.fixed_velocity.SO2: 0.5 in A, 0.8 in B" in out
     assert "inputs (by their SHA-256):\n  scenario: different files" in out
     diff = pd.read_csv(table, dtype={"period": str})
     # only the S dry and S total change, by the Vd ratio on the SO2 part (dry S is SO2

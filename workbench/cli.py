@@ -9,7 +9,8 @@ limit) and interrupts.  A run folder is written whole or not at all
 
 Where the parts are: ``workbench check`` (:func:`cmd_check`, :func:`absent_site_lines`)
 in :mod:`workbench.cli_check`; what a run prints after it (:func:`status_lines`,
-:func:`run_span_notes`, :func:`site_status_lines`, :func:`failing_lines`) in
+:func:`run_span_notes`, :func:`site_status_lines`, :func:`failing_lines`,
+:func:`run_note_lines`) in
 :mod:`workbench.cli_status`; the
 terminal (:class:`_LineEnd`, Ctrl-C) in :mod:`workbench.cli_terminal`; ``verify`` and
 ``compare`` in :mod:`workbench.cli_runs`.  This module re-exports them, so that
@@ -28,8 +29,8 @@ from .errors import WorkbenchError
 from .cli_check import (_check_grid_only, _inputs_text, _progress,  # noqa: F401
                         absent_site_lines, cmd_check)
 # what a run prints after it (defined here before)
-from .cli_status import (failing_lines, run_span_notes, site_status_lines,  # noqa: F401
-                         status_lines)
+from .cli_status import (failing_lines, run_note_lines, run_span_notes,  # noqa: F401
+                         site_status_lines, status_lines)
 # the terminal: stderr's open line, Ctrl-C (defined here before)
 from .cli_terminal import (_LineEnd, _catch_ctrl_c, _end_line,  # noqa: F401
                            _in_gc_callback, _on_ctrl_c)
@@ -187,13 +188,25 @@ def cmd_run(args) -> int:
         print(f"warning: {changed_note(path, None)}", file=sys.stderr)
     for line in status_lines(result.table, study.inputs):
         print(line)
-    for line in run_span_notes(args.scenario, result.table, args.resolution, study):
+    said = run_span_notes(args.scenario, result.table, args.resolution, study)
+    for line in said:
         print(line)
     for line in site_status_lines(result.table):
         print(line)
     for line in failing_lines(result.table):         # totals that are not a full period's
         print(line)
+    for line in _note_lines(result, args.scenario, said):   # report.html's "Notes"
+        print(line)
     return 0
+
+
+def _note_lines(result, scenario, said=()) -> list[str]:
+    """:func:`run_note_lines` of a finished run: its notes, its sites, paths relative to
+    the folder of the scenario file `scenario`."""
+    years = getattr(result, "years", None)
+    sites = [] if years is None or "site" not in years.coords else years["site"].values
+    return run_note_lines(getattr(result, "notes", []), sites,
+                          Path(scenario).resolve().parent, said)
 
 
 def cmd_demo(args) -> int:
@@ -231,6 +244,8 @@ def cmd_demo(args) -> int:
         from .tables import SPAN_STATUS_WORDS
         print("status: " + SPAN_STATUS_WORDS)
     for line in failing_lines(t):                    # totals that are not a full period's
+        print(line)
+    for line in _note_lines(result, DEMO_SCENARIO):  # report.html's "Notes"
         print(line)
     print()
     print(f"report: {written['report.html']}")

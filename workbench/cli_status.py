@@ -1,10 +1,16 @@
 """What ``workbench run`` prints after a run: the budgets' status counts, the notes on
-the run's span, the sites whose totals are not complete and the site-periods whose
-totals fail completeness.
+the run's span, the sites whose totals are not complete, the site-periods whose
+totals fail completeness and the run's notes (those of report.html and provenance.json).
 
 Part of :mod:`workbench.cli`, which re-exports every name here.
 """
 from __future__ import annotations
+
+import textwrap
+
+#: Widest line of a run note on the console [characters]: one less than an 80-column
+#: terminal, which some terminals wrap at a line of exactly 80 characters.
+NOTE_WIDTH = 79
 
 
 def status_lines(table, inputs) -> list[str]:
@@ -151,4 +157,64 @@ def failing_lines(table, shown=None) -> list[str]:
         lines.append(f"  {site} {period}: {' '.join(els)}: {first}")
     if n > shown:
         lines.append(f"  and {n - shown} more, see summary.csv")
+    return lines
+
+
+def run_note_lines(notes, site_ids=(), base=None, said=(), width=None,
+                   min_sites=None) -> list[str]:
+    """The run's notes for the console, as report.html ("Notes") and provenance.json
+    (``run_notes``) carry them: a heading, then each note once, wrapped to `width`
+    characters (default :data:`NOTE_WIDTH`) under a hanging "  - ".
+
+    Parameters
+    ----------
+    notes : list of str
+        The run's notes (:attr:`workbench.pipeline.Result.notes`).
+    site_ids : iterable of str
+        The run's sites: more than `min_sites` (default
+        :data:`workbench.report_network.NETWORK_SITES`) and the notes that differ only
+        by their site are one line, as the report groups them
+        (:func:`workbench.report_network.grouped_free_notes`).
+    base : pathlib.Path, optional
+        The scenario's folder: paths inside it are written relative to it, as in the
+        report (:func:`workbench.runpaths.shown_text`).
+    said : iterable of str
+        Lines printed already (:func:`run_span_notes`): a note that one of them holds
+        (without its ``period: `` head) is not printed again.
+
+    Returns
+    -------
+    list of str
+        Empty when the run has no note left to print.
+
+    Examples
+    --------
+    >>> lines = run_note_lines(["completeness of month periods: " + "word " * 30])
+    >>> lines[0]
+    'notes of the run (report.html, "Notes"; provenance.json, run_notes):'
+    >>> max(len(x) for x in lines) <= NOTE_WIDTH, lines[1][:36]
+    (True, '  - completeness of month periods: w')
+    """
+    from .report_network import NETWORK_SITES, grouped_free_notes
+    from .runpaths import shown_text
+    width = NOTE_WIDTH if width is None else width
+    min_sites = NETWORK_SITES if min_sites is None else min_sites
+    said = [str(x) for x in said]
+    shown = []
+    for n in notes:
+        n = shown_text(str(n), base)
+        if not n.strip() or any(n.removeprefix("period: ") in x for x in said):
+            continue
+        shown.append(n)
+    shown = list(dict.fromkeys(shown))
+    ids = [str(s) for s in site_ids]
+    if shown and len(ids) > min_sites:
+        shown = grouped_free_notes(shown, ids)
+    if not shown:
+        return []
+    lines = ['notes of the run (report.html, "Notes"; provenance.json, run_notes):']
+    for n in shown:
+        lines.extend(textwrap.wrap(" ".join(n.split()), width=width, initial_indent="  - ",
+                                   subsequent_indent="    ", break_long_words=False,
+                                   break_on_hyphens=False))
     return lines

@@ -38,8 +38,11 @@ class Prepared:
         p = self.periods
         res = sc.data["period"]["resolution"]
         n_years = len(self.years)
+        # minutes and UTC, as the inputs' lines above (it read "2016-01-01 00:00:00")
+        first, last = (str(np.datetime64(t, "m")) for t in (p["start"].iloc[0],
+                                                             p["end"].iloc[-1]))
         lines = [f"periods: {len(p)} {res} period{'s' if len(p) != 1 else ''} from "
-                 f"{p['start'].iloc[0]} to {p['end'].iloc[-1]}; whole-span totals over "
+                 f"{first} to {last} UTC; whole-span totals over "
                  f"{n_years} calendar year{'s' if n_years != 1 else ''}",
                  f"receptor surfaces: {', '.join(map(str, self.receptors)) or 'none'}"]
         fixed = sc.fixed_velocity

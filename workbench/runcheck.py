@@ -208,8 +208,11 @@ def verify_run(run, scenario=None) -> Verification:
             say(f"outputs: {len(changed)} of {len(sums)} files differ from the run: "
                 + "; ".join(changed))
         else:
-            say(f"outputs: the {len(sums)} files are as written" if len(sums) != 1 else
-                f"outputs: the 1 file ({next(iter(sums))}) is as written")
+            # provenance.json holds the checksums of the others: "run" wrote one more
+            say(f"outputs: the {len(sums)} files besides provenance.json are as written"
+                if len(sums) != 1 else
+                f"outputs: the 1 file besides provenance.json ({next(iter(sums))}) is as "
+                "written")
 
     # ------------------------------------------------------------------ scenario
     records = prov["inputs"]

@@ -260,7 +260,7 @@ def compare_runs(a, b, rtol: float = 0.0, rows: int | None = SHOWN_ROWS) -> Comp
 
     opts = option_differences(pa.get("scenario"), pb.get("scenario"))
     if opts:
-        say(f"options ({len(opts)} differ):")
+        say(f"options ({len(opts)} differ{'s' if len(opts) == 1 else ''}):")
         for key, va, vb in opts:
             say(f"  {key}: {show(va)} in A, {show(vb)} in B")
         c.same = False

@@ -39,7 +39,8 @@ def test_the_record_counts_the_runs_and_names_what_was_held():
     assert "seed 12345" in text and "2k + 1 = 5 evaluations (3 engine runs)" in text
     assert "not percentiles" in text
     # the console says which factors were varied over which range (README), as the page
-    assert "varied (uniform ranges): vd_SO2 0.5 to 1.5, z0_grass 0.01 to 0.1" in text
+    assert ("varied (uniform ranges): vd_SO2 0.5 to 1.5 (multiplier); z0_grass 0.01 to "
+            "0.1 m") in text
 
 
 def test_a_sensitivity_folder_carries_the_record(tiny, tmp_path, capsys):

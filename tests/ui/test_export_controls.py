@@ -70,7 +70,10 @@ def test_html_instead_when_the_image_export_fails(tmp_path, monkeypatch):
         if str(path).endswith(".png"):
             raise ExportError("no browser (test)")
         return export_figure(fig, path, **kw)
+    def no_images(items, **kw):               # the one session fails too
+        raise ExportError("no browser (test)")
     monkeypatch.setattr(export_controls, "export_figure", no_image)
+    monkeypatch.setattr(export_controls, "export_figures", no_images)
     figs = {"a": go.Figure(go.Bar(x=[1], y=[2])), "b b": {"data": [], "layout": {}}}
     control = FigureExport(lambda: figs, "Demo App", folder=lambda: tmp_path)
     paths = control.export("png")

@@ -95,7 +95,11 @@ def test_export_says_it_is_writing_and_holds_the_button(tmp_path, monkeypatch):
         path.write_text("x")
         return path
 
+    def slow_batch(items, *a, **k):             # PNGs: all in one kaleido session
+        return [slow_write(fig, path) for fig, path in items]
+
     monkeypatch.setattr(export_controls, "export_figure", slow_write)
+    monkeypatch.setattr(export_controls, "export_figures", slow_batch)
     control = FigureExport(lambda: {"a": go.Figure(), "b": go.Figure()}, "app",
                            folder=lambda: tmp_path)
     control.button_w.click()

@@ -130,6 +130,30 @@ def range_text(name, rng) -> str:
     return f"{rng[0]:g} to {rng[1]:g}"
 
 
+#: The unit of a factor's range on the console, by kind (:func:`range_words`).
+RANGE_UNIT = {"linear": " (multiplier)", "rc_scale": " (multiplier)",
+              "nh3_gamma": " (multiplier)", "fine_fraction": " (mass fraction)",
+              "fine_mmd": " m", "z0": " m"}
+
+
+def range_words(name, rng) -> str:
+    """The range of factor `name` with its unit, for a line of text that lists several
+    factors: ``0.5 to 2 (multiplier)``, ``0.01 to 0.1 m``, ``one of a, b (equally
+    likely)``.  Before, the console of ``workbench sensitivity`` wrote ``vd_SO2 0.667
+    to 1.5`` beside ``z0_grass 0.01 to 0.1``: a multiplier and a length in metres read
+    alike, and a multiplier of Vd could be read as a Vd in cm/s.
+
+    >>> range_words("vd_SO2", (0.5, 1.5)), range_words("z0_grass", (0.01, 0.1))
+    ('0.5 to 1.5 (multiplier)', '0.01 to 0.1 m')
+    >>> range_words("wetness_rule", ["met", "rh"])
+    'one of met, rh (equally likely)'
+    """
+    kind = factor_kind(name)
+    if kind == "wetness_rule":
+        return f"one of {range_text(name, rng)} (equally likely)"
+    return range_text(name, rng) + RANGE_UNIT.get(kind, "")
+
+
 def design(options: SensitivityOptions, counts: dict, dry=None, budget=None) -> dict:
     """The record of an analysis (provenance.json's ``sensitivity_design``).
 
@@ -195,7 +219,7 @@ def design_lines(d: dict) -> list:
            f"tornado: 2k + 1 = {d['tornado_evaluations']} evaluations "
            f"({runs(d['tornado_engine_runs'])}), each factor at the low and high end of its "
            "range (not percentiles: a uniform range's 0 % and 100 %), the others at their base",
-           "varied (uniform ranges): " + ", ".join(f"{n} {range_text(n, f['range'])}"
+           "varied (uniform ranges): " + "; ".join(f"{n} {range_words(n, f['range'])}"
                                                    for n, f in d["factors"].items()),
            "not varied: " + "; ".join(d["not_varied"])]
     if d.get("too_few_samples"):

@@ -1,10 +1,11 @@
 """One control shared by the apps: write every figure of the app to a file.
 
 :class:`FigureExport` is a format dropdown and a button; the button writes each figure
-the app shows into :func:`workbench.ui.session.output_dir` through
-:func:`workbench.ui.export.export_figure` and says where.  When PNG or SVG export
-cannot run (kaleido or a Chrome/Chromium missing), the figure is written as a
-self-contained HTML file instead, and the message says so.
+the app shows into :func:`workbench.ui.session.output_dir` and says where: PNG and SVG
+all through one kaleido session (:func:`workbench.ui.export.export_figures`), HTML one
+by one (:func:`workbench.ui.export.export_figure`).  When PNG or SVG export cannot run
+(kaleido or a Chrome/Chromium missing), the figure is written as a self-contained HTML
+file instead, and the message says so.
 """
 from __future__ import annotations
 
@@ -16,7 +17,7 @@ from typing import Callable
 import ipywidgets as widgets
 
 from .controls import shown_figure
-from .export import FORMATS, ExportError, export_figure
+from .export import FORMATS, ExportError, export_figure, export_figures
 from .session import output_dir
 
 
@@ -78,8 +79,9 @@ class FigureExport(widgets.HBox):
         folder = Path(self._folder())
         folder.mkdir(parents=True, exist_ok=True)
         figures = self._figures()
-        # said at once, the button off while the files are written: a PNG takes seconds
-        # (kaleido), and seven took 35 s in the site explorer with nothing on the page
+        # said at once, the button off while the files are written: PNGs take seconds
+        # (kaleido; seven took 35 s in the site explorer, one browser each, and about
+        # 8 s in one session), with nothing on the page
         self.message_w.value = (f"writing {len(figures)} figure{'s' if len(figures) != 1 else ''}"
                                 f" as {html.escape(fmt.upper())} into "
                                 f"{html.escape(str(folder))} ...")
@@ -97,12 +99,21 @@ class FigureExport(widgets.HBox):
 
     def _write(self, figures: dict, folder: Path, fmt: str):
         """Write `figures` into `folder`; returns the paths and the reasons of the
-        figures written as HTML instead of `fmt`."""
+        figures written as HTML instead of `fmt`.
+
+        PNG and SVG go through one kaleido session; when that fails they are written one
+        by one, so that each figure that cannot be written is written as HTML (with its
+        reason) and the others in `fmt`."""
+        items = [(fig if isinstance(fig, dict) else shown_figure(fig),
+                  folder / f"{file_stem(self.prefix, name)}.{fmt}")
+                 for name, fig in figures.items()]
+        if fmt != "html" and len(items) > 1:
+            try:
+                return export_figures(items), []
+            except ExportError:
+                pass             # one by one below, each failure said
         written, fallback = [], []
-        for name, fig in figures.items():
-            path = folder / f"{file_stem(self.prefix, name)}.{fmt}"
-            if not isinstance(fig, dict):
-                fig = shown_figure(fig)
+        for fig, path in items:
             try:
                 written.append(export_figure(fig, path))
             except ExportError as exc:

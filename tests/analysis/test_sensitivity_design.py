@@ -1,0 +1,54 @@
+"""The console of ``workbench sensitivity`` gives each factor's range with its unit
+(workbench/analysis/sensitivity_design.py, ``range_words``).
+
+Before, it printed ``varied (uniform ranges): vd_SO2 0.667 to 1.5, ..., z0_grass 0.01
+to 0.1`` (read as a new user: is 0.667 to 1.5 a Vd in cm/s, and 0.01 to 0.1 in which
+unit?), and the rules of ``wetness_rule`` ran on with the same commas as the factors.
+"""
+import re
+
+import pytest
+
+from workbench.analysis.sensitivity_options import SensitivityOptions
+
+pytest.importorskip("SALib")
+
+FACTORS = {"vd_SO2": (0.5, 1.5), "gauge_catch": (0.9, 1.1), "z0_grass": (0.01, 0.1),
+           "fine_mmd_pSO4": (2e-7, 6e-7), "fine_fraction_pNO3": (0.2, 0.6),
+           "rc_scale_SO2": (0.5, 2.0), "nh3_gamma_grass": (0.5, 2.0),
+           "wetness_rule": ["met", "always_wet"]}
+
+
+def _varied_line():
+    from workbench.analysis.sensitivity_design import design, design_lines
+    d = design(SensitivityOptions(samples=64, factors=FACTORS),
+               {"sobol_evaluations": 640, "sobol_engine_runs": 2,
+                "tornado_evaluations": 17, "tornado_engine_runs": 2})
+    return next(x for x in design_lines(d) if x.startswith("varied (uniform ranges): "))
+
+
+def test_every_range_on_the_console_has_its_unit():
+    items = _varied_line().removeprefix("varied (uniform ranges): ").split("; ")
+    got = dict(item.split(" ", 1) for item in items)
+    assert list(got) == list(FACTORS)                  # one item per factor, in order
+    assert got["vd_SO2"] == "0.5 to 1.5 (multiplier)"
+    assert got["gauge_catch"] == "0.9 to 1.1 (multiplier)"
+    assert got["rc_scale_SO2"] == got["nh3_gamma_grass"] == "0.5 to 2 (multiplier)"
+    assert got["z0_grass"] == "0.01 to 0.1 m"
+    assert got["fine_mmd_pSO4"] == "2e-07 to 6e-07 m"
+    assert got["fine_fraction_pNO3"] == "0.2 to 0.6 (mass fraction)"
+    assert got["wetness_rule"] == "one of met, always_wet (equally likely)"
+    # no bare number: each range ends in a unit or says what it is
+    for name, text in got.items():
+        assert not re.search(r"\d$", text), (name, text)
+
+
+def test_the_sensitivity_command_prints_the_units(tiny, tmp_path, capsys):
+    from workbench.cli import main
+    sc, _, _, _ = tiny
+    capsys.readouterr()
+    assert main(["sensitivity", str(sc.path), "--out", str(tmp_path / "s"), "--quiet"]) == 0
+    line = next(x for x in capsys.readouterr().out.splitlines()
+                if x.startswith("varied (uniform ranges): "))
+    assert "vd_SO2 0.5 to 1.5 (multiplier)" in line
+    assert "wetness_rule one of met, always_wet (equally likely)" in line

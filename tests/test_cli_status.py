@@ -1,0 +1,114 @@
+"""What ``workbench run`` prints at its end (workbench/cli_status.py): the run's notes,
+which report.html ("Notes") and provenance.json (``run_notes``) carry, are printed on
+the console too, after the files and the status counts, once each, wrapped for an
+80-column terminal, with or without ``--quiet`` (README: ``--quiet`` hides the progress
+only).  Before, a command-line user never read them: the note that one weekly sample
+decides a month (workbench/period_notes.py) was in the two files only."""
+import json
+
+import pytest
+
+import test_budget as tb
+from workbench.cli import main
+
+MONTH_NOTE = "completeness of month periods: one precipitation sample"
+
+
+def _words(text):
+    return " ".join(text.split())
+
+
+def _printed_notes(out):
+    """The notes under the console's heading, each joined back into one line."""
+    head = 'notes of the run (report.html, "Notes"; provenance.json, run_notes):'
+    assert out.count(head) == 1, out
+    notes = []
+    for line in out.split(head)[1].splitlines()[1:]:
+        if line.startswith("  - "):
+            notes.append(line[4:])
+        elif line.startswith("    "):
+            notes[-1] += " " + line.strip()
+        else:
+            break
+    return notes
+
+
+@pytest.mark.parametrize("quiet", [True, False])
+def test_a_monthly_run_prints_its_notes_after_the_summary(tmp_path, capsys, quiet):
+    scenario = tb._write(tmp_path)                 # weekly samples, monthly periods
+    out = tmp_path / "out"
+    assert main(["run", str(scenario), "--out", str(out)] + (["--quiet"] if quiet else [])) == 0
+    printed = capsys.readouterr().out
+    notes = _printed_notes(printed)
+    prov = json.loads((out / "provenance.json").read_text())
+    # every note of provenance.json, word for word, once
+    assert notes == [_words(n) for n in prov["run_notes"]]
+    assert any(n.startswith(MONTH_NOTE) for n in notes)
+    assert sum(MONTH_NOTE in line for line in printed.splitlines()) == 1
+    # after the files written and the status counts
+    lines = printed.splitlines()
+    head = next(i for i, x in enumerate(lines) if x.startswith("notes of the run"))
+    assert head > next(i for i, x in enumerate(lines) if x.startswith("budgets per site"))
+    assert head > lines.index("  provenance.json")
+    # wrapped for an 80-column terminal
+    block = lines[head:head + 1 + sum(1 for x in lines[head + 1:] if x.startswith("  "))]
+    assert max(len(x) for x in block) < 80
+    assert len(block) > 3                            # the note is longer than one line
+
+
+def test_a_yearly_run_without_notes_prints_no_heading(tmp_path, capsys):
+    scenario = tb._write(tmp_path)
+    scenario.write_text(scenario.read_text().replace('resolution = "month"',
+                                                     'resolution = "year"'))
+    scenario.write_text(scenario.read_text().replace('end = "2021-03-01"',
+                                                     'end = "2022-01-01"').replace(
+        'start = "2021-02-01"', 'start = "2021-01-01"'))
+    out = tmp_path / "out"
+    assert main(["run", str(scenario), "--out", str(out), "--quiet"]) == 0
+    printed = capsys.readouterr().out
+    assert json.loads((out / "provenance.json").read_text())["run_notes"] == []
+    assert "notes of the run" not in printed
+
+
+def test_a_note_already_said_is_not_said_again():
+    """The days a default span leaves out are printed by run_span_notes ("note: the
+    default [period] end ..."); the same run note is not printed a second time."""
+    from workbench.cli_status import run_note_lines
+    left = "period: the default [period] end is 2022-01-01: the record reaches 3.4 days"
+    said = ["note: " + left.removeprefix("period: ")]
+    assert run_note_lines([left], said=said) == []
+    other = "NH3 and pNH4 at farm: the ammonium bracket is combined across samplers"
+    lines = run_note_lines([left, other, other], said=said)
+    assert lines[1:] == ["  - " + other]
+
+
+def test_paths_are_relative_to_the_scenario_and_never_broken(tmp_path):
+    from workbench.cli_status import run_note_lines
+    base = tmp_path / "study"
+    path = str(base / "data" / ("a-very-long-folder-name-" * 4) / "air.csv")
+    lines = run_note_lines([f"air: {path} holds a sampler with one sample"], base=base)
+    body = "".join(x.strip() for x in lines[1:])
+    assert str(base) not in body
+    assert "data/" + "a-very-long-folder-name-" * 4 + "/air.csv" in body   # one piece
+
+
+def test_a_network_groups_the_notes_that_differ_by_site_only():
+    """As report.html groups its notes for more than 8 sites (report_network)."""
+    from workbench.cli_status import run_note_lines
+    sites = [f"s{i:02d}" for i in range(10)]
+    notes = [f"NH3 and pNH4 at {s}: the bracket is combined across samplers" for s in sites]
+    lines = run_note_lines(notes, sites)
+    joined = _words(" ".join(lines[1:]))
+    assert len([x for x in lines if x.startswith("  - ")]) == 1
+    assert "the same at 9 more sites: s01, s02" in joined
+    # a few sites: each note as written
+    assert len([x for x in run_note_lines(notes[:3], sites[:3]) if x.startswith("  - ")]) == 3
+
+
+def test_the_demo_prints_its_notes_before_the_report_line(tmp_path, capsys):
+    assert main(["demo", "--out", str(tmp_path / "run"), "--quiet"]) == 0
+    printed = capsys.readouterr().out
+    notes = _printed_notes(printed)
+    prov = json.loads((tmp_path / "run" / "provenance.json").read_text())
+    assert notes == [_words(n) for n in prov["run_notes"]] and notes
+    assert printed.index("notes of the run") < printed.index("report: ")
