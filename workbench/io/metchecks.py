@@ -24,6 +24,7 @@ from ..units import written_in
 from .common import join_reasons
 from .metcolumns import column_checks
 from .metvars import MET_VARIABLES
+from .metcounter import daily_reset_sites, reset_reason
 from .metwind import wind_unit_findings
 
 #: The variables every met row needs: an empty cell of one flags its row.
@@ -88,8 +89,11 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
     codes, names = pd.factorize(np.asarray(sites, dtype=object))
     codes = codes.astype(np.int64)
 
+    def per_site_of(attr):
+        return np.array([getattr(catalogue[str(u)], attr) for u in names], float)
+
     def per_site(attr):
-        return np.array([getattr(catalogue[str(u)], attr) for u in names], float)[codes]
+        return per_site_of(attr)[codes]
     frame = pd.DataFrame({"site": codes, "month": t.astype("datetime64[M]")})
 
     def rows(sel, reason):
@@ -133,6 +137,15 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
     if "solar_radiation" in values:
         sun_deg = solar_elevation_deg(t - np.timedelta64(30, "m"), per_site("latitude"),
                                       per_site("longitude"))
+    # precipitation as a gauge counter restarted each day (a sawtooth): before the
+    # column checks and the cumulative rule, whose reasons would name another cause
+    if "precipitation" in values:
+        reset, hour, share, falls = daily_reset_sites(values["precipitation"], codes,
+                                                      len(names), t, per_site_of("utc_offset_h"))
+        for s in np.flatnonzero(reset):
+            mask("precipitation", codes == s,
+                 reset_reason(f"{head_text('precipitation')} at site {names[s]}", int(hour[s]), float(share[s]),
+                              int(falls[s])))
     # a column holding another variable (shifted or swapped): before the unit checks,
     # whose reasons would name a unit for it
     for name, sel, reason in column_checks(values, codes, len(names), sun_deg, raw_units, t):
