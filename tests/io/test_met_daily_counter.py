@@ -63,3 +63,15 @@ def test_gauge_comparison_no_longer_judges_the_counter(tmp_path, demo_met):
     reasons = ledger_reasons(inp.ledger)
     assert not [r for r in reasons if "far from the gauge depth" in r]
     assert len([r for r in reasons if "restarted each day" in r]) == 4
+
+
+def test_a_days_total_in_one_hour_is_not_named_a_counter(tmp_path, demo_met):
+    # each day's total written at 09:00 only, 0 in the other hours: its falls come at one
+    # hour too (10:00), but from a lone value, not from a total held for hours
+    met = demo_met[demo_met["time"] < "2016-04-01"].reset_index(drop=True)
+    t = pd.to_datetime(met["time"])
+    day = (t - pd.Timedelta(hours=9, minutes=1)).dt.floor("D")
+    total = met.groupby([met["site"], day])[COL].transform("sum").round(1)
+    met[COL] = np.where(t.dt.hour == 9, total, 0.0)
+    _, led = read_met(_write(tmp_path / "met.csv", met), read_sites(DEMO / "sites.toml"))
+    assert not [r for r in ledger_reasons(led) if "restarted each day" in r]

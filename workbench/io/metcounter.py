@@ -2,7 +2,9 @@
 
 A logger that writes the day's running total (cumulative within the day, back to 0 at
 the day's start) instead of each hour's amount draws a sawtooth: the values never fall
-within a day and fall at one hour of the day only, the hour after the reset.  An hourly
+within a day and fall at one hour of the day only, the hour after the reset, from a
+value held for hours (a day's total written into one hour, 0 in the others, falls at
+one hour too, from a lone value).  An hourly
 record's falls (a shower easing) come at every hour of the day: at the demo's sites the
 most frequent hour holds 4.5-4.6 % of a site's falls (1/24 = 4.2 %), a daily counter's
 100 %.  The values are masked with a reason that names the column, the hour and what to
@@ -20,6 +22,11 @@ RESET_HOUR_SHARE = 0.9
 #: Falls a site needs before it is judged [-] (a counter reset each day falls on every
 #: day with rain: a month of a wet climate; our choice).
 RESET_MIN_FALLS = 20
+#: Share of those falls whose hour before the last rise already held a value (above 0
+#: and not above the next) at or above which the shape is a counter [-]: a counter holds
+#: the day's total for hours before its restart, a day's total written into one hour of
+#: the day (0 in the others) does not (our choice).
+RESET_HELD_SHARE = 0.5
 #: Amount below which a fall is rounding, not a fall [mm] (half the 0.1 mm step a
 #: tipping-bucket gauge writes; common practice).
 FALL_MIN_MM = 0.05
@@ -63,6 +70,8 @@ def daily_reset_sites(pr, codes, n_sites, time_end, offset_h):
     step = np.diff(tt).astype(np.int64)
     pair = (c[1:] == c[:-1]) & (step == 60) & np.isfinite(v[1:]) & np.isfinite(v[:-1])
     fall = pair & (v[1:] < v[:-1] - FALL_MIN_MM)
+    held = np.zeros(len(fall), bool)   # the pair before a fall: a value held, not a spike
+    held[1:] = pair[:-1] & (v[:-2] > 0) & (v[:-2] <= v[1:-1])
     local_min = tt[1:].astype(np.int64) + np.round(offset_h[c[1:]] * 60).astype(np.int64)
     hour = (local_min // 60) % 24
     cell = c[1:][fall] * 24 + hour[fall]
@@ -71,7 +80,11 @@ def daily_reset_sites(pr, codes, n_sites, time_end, offset_h):
     top = counts.argmax(axis=1)
     with np.errstate(invalid="ignore", divide="ignore"):
         share = counts.max(axis=1) / falls
-    reset = (falls >= RESET_MIN_FALLS) & (share >= RESET_HOUR_SHARE)
+    n_held = np.bincount(c[1:][fall], held[fall].astype(float), minlength=n_sites)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        held_share = n_held / falls
+    reset = ((falls >= RESET_MIN_FALLS) & (share >= RESET_HOUR_SHARE)
+             & (held_share >= RESET_HELD_SHARE))
     return reset, top, np.nan_to_num(share), falls
 
 
