@@ -218,7 +218,9 @@ def test_nh3_of_a_clean_site_in_ng_per_m3_is_a_slip_though_most_values_stay_in_r
     bad, why = air_checks("NH3", v, np.zeros(44, bool), groups, unit="ug/m3")
     assert bad[:40].all() and not bad[40:].any()
     assert set(why[:40]) == {"NH3 values look 1000x too high at this sampler: ng/m3 "
-                             "written under a ug/m3 header? (masked)"}
+                             "written under a ug/m3 header? or a sampler in a source's "
+                             "plume? then write source_plume = [\"NH3\"] for its site in "
+                             "sites.toml (masked)"}
 
 
 @pytest.mark.parametrize("high", [

@@ -24,6 +24,8 @@ from ..units import written_in
 from .common import join_reasons
 from .metcolumns import column_checks
 from .metvars import MET_VARIABLES
+from .metcounter import daily_reset_sites, reset_reason
+from .metwind import wind_unit_findings
 
 #: The variables every met row needs: an empty cell of one flags its row.
 REQUIRED_NAMES = tuple(k for k, (_, req, _) in MET_VARIABLES.items() if req)
@@ -87,8 +89,11 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
     codes, names = pd.factorize(np.asarray(sites, dtype=object))
     codes = codes.astype(np.int64)
 
+    def per_site_of(attr):
+        return np.array([getattr(catalogue[str(u)], attr) for u in names], float)
+
     def per_site(attr):
-        return np.array([getattr(catalogue[str(u)], attr) for u in names], float)[codes]
+        return per_site_of(attr)[codes]
     frame = pd.DataFrame({"site": codes, "month": t.astype("datetime64[M]")})
 
     def rows(sel, reason):
@@ -103,6 +108,10 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
         if sel.any():
             values[name] = np.where(sel, np.nan, values[name])
             parts.append(rows(sel, reason))
+
+    def head_text(name):
+        u = str(raw_units.get(name, "")).strip()
+        return f"column {name}" + (f" [{u}]" if u else "")
 
     def flag(sel, reason):
         if sel.any():
@@ -128,6 +137,15 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
     if "solar_radiation" in values:
         sun_deg = solar_elevation_deg(t - np.timedelta64(30, "m"), per_site("latitude"),
                                       per_site("longitude"))
+    # precipitation as a gauge counter restarted each day (a sawtooth): before the
+    # column checks and the cumulative rule, whose reasons would name another cause
+    if "precipitation" in values:
+        reset, hour, share, falls = daily_reset_sites(values["precipitation"], codes,
+                                                      len(names), t, per_site_of("utc_offset_h"))
+        for s in np.flatnonzero(reset):
+            mask("precipitation", codes == s,
+                 reset_reason(f"{head_text('precipitation')} at site {names[s]}", int(hour[s]), float(share[s]),
+                              int(falls[s])))
     # a column holding another variable (shifted or swapped): before the unit checks,
     # whose reasons would name a unit for it
     for name, sel, reason in column_checks(values, codes, len(names), sun_deg, raw_units, t):
@@ -237,13 +255,22 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
                 mask("temperature", fahrenheit,
                      f"temperature looks like degF although the header says {unit or 'degC'} "
                      "(masked)")
-    # wind in km/h under an m/s header: kept, flagged
+    # wind in knots, mph or km/h under an m/s header: kept, flagged (metwind.py: the
+    # log law from a measured u*, else the potential wind; then a median above 10 m/s)
     if "wind_speed" in values and written_in(raw_units.get("wind_speed", ""), "m/s"):
-        g = frame.assign(v=values["wind_speed"]).groupby("site")["v"]
+        ws = values["wind_speed"]
+        by_ustar, found = wind_unit_findings(ws, values.get("friction_velocity"), codes,
+                                             names, catalogue, head_text("wind_speed"))
+        for c, reason in found:
+            flag(codes == c, reason)
+        named = np.zeros(len(names), bool)
+        named[[c for c, _ in found]] = True
+        g = frame.assign(v=ws).groupby("site")["v"]
         med_u = g.transform("median").to_numpy()
-        flag((med_u > KMH_MEDIAN_MIN) & (g.transform("count").to_numpy() >= MEDIAN_MIN_HOURS),
-             f"wind speed median above {KMH_MEDIAN_MIN:g} m/s at this site: km/h under an m/s "
-             "header? (kept)")
+        flag((med_u > KMH_MEDIAN_MIN) & (g.transform("count").to_numpy() >= MEDIAN_MIN_HOURS)
+             & ~(by_ustar | named)[codes],
+             f"wind speed median above {KMH_MEDIAN_MIN:g} m/s at this site: km/h (x 3.6) or "
+             "knots (x 1.94) under an m/s header? (kept)")
     # hard ranges
     for name, (lo, hi) in RANGES.items():
         if name in values:

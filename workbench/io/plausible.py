@@ -81,6 +81,11 @@ SLIP_MIN_VALUES = 8
 #: was masked whole in 36 % of invented one-year records, now in 0.6 %.
 SLIP_LOW_QUANTILE = 0.05
 SLIP_LOW_SHARE = 0.1
+#: Factor on the maximum up to which a value of a sampler declared in a source's plume
+#: (``source_plume``) is kept [-] (our choice: 10 x the NH3 maximum is 10 mg/m3, some
+#: 14 ppm, the level inside livestock houses, 5-25 ppm, from memory; above it a plume
+#: sampler's value is masked as any other).
+PLUME_MAX_FACTOR = 10.0
 #: Units a column may be written in, searched for the one 1000x smaller than a header's.
 _SLIP_UNITS = ("pg/m3", "ng/m3", "ug/m3", "mg/m3", "ppt", "ppb", "ppm",
                "fmol/mol", "pmol/mol", "nmol/mol", "umol/mol", "pmol/m3", "nmol/m3",
@@ -156,7 +161,7 @@ def thousandth_unit(unit: str | None) -> str:
     return ""
 
 
-def air_checks(species: str, ugm3, censored, groups, unit: str | None = None):
+def air_checks(species: str, ugm3, censored, groups, unit: str | None = None, plume=None):
     """Range and unit-slip checks of one air species.
 
     Parameters
@@ -169,6 +174,10 @@ def air_checks(species: str, ugm3, censored, groups, unit: str | None = None):
         One label per row (site and sampler): a unit slip is judged per group.
     unit : str, optional
         The column's unit as written in the header, named in the unit-slip hint.
+    plume : ndarray of bool, optional
+        The rows of samplers declared in a source's plume (the site's ``source_plume``
+        names the species): never judged a unit slip, and their values above the
+        maximum are kept with a flag (a weekly mean of some ppm beside a house is real).
 
     Returns
     -------
@@ -185,7 +194,11 @@ def air_checks(species: str, ugm3, censored, groups, unit: str | None = None):
     too_low = v < -tol
     reasons[too_low] = (f"{species} negative beyond the blank tolerance -{tol:g} ug/m3 "
                         "(masked)")
-    too_high = v > hi
+    plume = np.zeros(n, bool) if plume is None else np.asarray(plume, bool)
+    high_plume = plume & (v > hi) & (v <= PLUME_MAX_FACTOR * hi)
+    reasons[high_plume] = (f"{species} above the plausible {hi:g} ug/m3 at a sampler "
+                           f"declared in a source's plume, source_plume in sites.toml (kept)")
+    too_high = (v > hi) & ~high_plume
     if too_high.any():
         g = pd.Series(groups)
         share = (pd.Series(too_high.astype(float)).where(~np.isnan(v)).groupby(g)
@@ -203,8 +216,9 @@ def air_checks(species: str, ugm3, censored, groups, unit: str | None = None):
         n_high = pd.Series(too_high).groupby(g).transform("sum").to_numpy()
         # ... whose low values stay high too (a near-source site has weeks far lower)
         low = pd.Series(v).groupby(g).transform("quantile", SLIP_LOW_QUANTILE).to_numpy()
-        slip_group |= ((share >= SLIP_SHARE_ALL_FIT) & fits_all
-                       & (n_high >= SLIP_MIN_VALUES) & (low >= SLIP_LOW_SHARE * hi))
+        wide = ((share >= SLIP_SHARE_ALL_FIT) & fits_all & (n_high >= SLIP_MIN_VALUES)
+                & (low >= SLIP_LOW_SHARE * hi) & ~slip_group)
+        slip_group |= wide
         with np.errstate(invalid="ignore"):   # a negative stays censored (or masked)
             slip = slip_group & (v > 0) & ~(too_high & ~fits)
         # a value below detection at such a sampler holds a limit 1000x too high
@@ -217,8 +231,14 @@ def air_checks(species: str, ugm3, censored, groups, unit: str | None = None):
         small = thousandth_unit(unit) if unit else ""
         guess = (f"{small} written under a {unit} header?" if small else
                  f"values in a unit {UNIT_SLIP:g}x smaller than the header's?")
-        reasons[slip] = (f"{species} values look {UNIT_SLIP:g}x too high at this sampler: "
-                         f"{guess} (masked)")
+        reasons[slip & ~wide] = (f"{species} values look {UNIT_SLIP:g}x too high at this "
+                                 f"sampler: {guess} (masked)")
+        # under half above the maximum: a sampler in a source's plume has these numbers
+        # too (docs/data_formats.md section 3); say how to keep its values
+        reasons[slip & wide] = (f"{species} values look {UNIT_SLIP:g}x too high at this "
+                                f"sampler: {guess} or a sampler in a source's plume? then "
+                                f"write source_plume = [\"{species}\"] for its site in "
+                                f"sites.toml (masked)")
     return too_low | too_high, reasons
 
 

@@ -70,8 +70,11 @@ PRECIP_NEGATIVE_TOL_MG_L = 0.5
 
 
 def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero_ok=None,
-                    negative_tol_mg_l=None, masked_why=None):
+                    negative_tol_mg_l=None, masked_why=None, plume=None):
     """Parse species columns into amounts, with censoring. Returns dict of arrays.
+
+    `plume` (air files), a callable: species -> bool per row, the rows of sites that
+    declare the species' samplers in a source's plume (``source_plume``).
 
     A missing-value code typed as a value (``-999``, ``9999``...) is masked and flagged;
     with `groups` (air files: one site-and-sampler label per row) the range and
@@ -104,7 +107,8 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero
         if groups is not None:
             bad, why = _plausible.air_checks(sp, _plausible.as_ugm3(np.where(sentinel, np.nan, amount),
                                                                      kind, sp), cens, groups,
-                                             unit=unit)
+                                             unit=unit,
+                                             plume=None if plume is None else plume(sp))
             masked = masked | bad
             why_parts.append(why)
         if negative_tol_mg_l is not None:

@@ -282,8 +282,14 @@ def read_air(path, catalogue, reference_state=None):
     parts = [repeat_why]
     groups = np.char.add(np.char.add(sites.astype(str), "\x1f"), samplers.astype(str))
     masked_why = {}
+    site_ids = sites.astype(str)
+
+    def plume(sp):               # rows of sites whose sp samplers stand in a plume
+        declared = [s.id for s in catalogue if sp in s.source_plume]
+        return np.isin(site_ids, declared) if declared else None
     conc = _concentrations(tab, cols, ("amount_density", "mixing_ratio"), parts, n, groups,
-                           zero_ok=repeat, masked_why=masked_why)   # zero: a dropped repeat
+                           zero_ok=repeat, masked_why=masked_why,   # zero: a dropped repeat
+                           plume=plume)
     check_shifted(tab, {cols[sp]: ~np.isnan(v) | c for sp, (v, c, _, _) in conc.items()},
                   rows=~repeat, groups=groups, what="concentration")
     ref_text = tab.meta.get("reference_state", reference_state)

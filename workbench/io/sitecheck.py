@@ -5,6 +5,7 @@ Moved from :mod:`workbench.io.sites`, which re-exports them.
 """
 from __future__ import annotations
 
+from .. import species as _species
 from ..errors import suggest, type_hint, type_words
 from ..landuse import LAND_USE, class_hint
 from .critical_loads import check_critical_loads
@@ -144,6 +145,12 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None,
         if v not in USTAR_TRANSFERS:
             raise err("unknown transfer of u*", "ustar_transfer", f"{key} = {v!r}",
                       "one of " + ", ".join(USTAR_TRANSFERS) + suggest(str(v), USTAR_TRANSFERS))
+    plume = t.get("source_plume", [])
+    air_species = _species.AIR_GASES + _species.AIR_PARTICLES
+    for sp in plume:
+        if sp not in air_species:
+            raise err("unknown air species in source_plume", "source_plume", sp,
+                      "one of " + ", ".join(air_species) + suggest(str(sp), air_species))
     for key in ("displacement_height_m", "terrain_slope_deg", "coast_distance_km"):
         if key in t and t[key] < 0:
             raise err("negative value", key, t[key], "a value >= 0")
@@ -171,7 +178,8 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None,
         nh3_emission_potential=gamma, ustar_transfer={k2: str(v) for k2, v in transfer.items()},
         changes=changes,
         laboratory=t["laboratory"].strip() if t.get("laboratory") else None,
-        air_laboratory=t["air_laboratory"].strip() if t.get("air_laboratory") else None)
+        air_laboratory=t["air_laboratory"].strip() if t.get("air_laboratory") else None,
+        source_plume=tuple(dict.fromkeys(plume)))
 
 
 def _nh3_emission_potential(t, err, notes, label, receptors) -> dict:

@@ -44,6 +44,9 @@ SITE_KEYS = {
                         "e.g. {pNO3 = 0.3}"),
     "ustar_transfer": (dict, False, "transfer of u* by the site's own surfaces, e.g. "
                        "{deciduous_forest = \"blending_height\"} (docs/methods_dry_particles.md)"),
+    "source_plume": (list, False, "air species whose samplers at this site stand in the "
+                     "plume of a nearby source, e.g. [\"NH3\"] beside livestock housing: "
+                     "their high values are real, never judged a 1000x unit slip"),
     "change": (list, False, "the site's history: [[site.change]] tables with date and what "
                "(docs/data_formats.md, \"A long record\")"),
 }
@@ -93,6 +96,8 @@ class Site:
     #: the site's last laboratory change); None: not named (a laboratory of its own)
     laboratory: str | None = None
     air_laboratory: str | None = None
+    #: air species whose samplers stand in a nearby source's plume (``source_plume``)
+    source_plume: tuple = ()
 
     def critical_loads_for(self, receptor) -> dict:
         """Critical loads of a receptor [eq ha-1 yr-1]: the site's, with the receptor's
@@ -136,6 +141,8 @@ def site_dict(site: Site) -> dict:
         out["nh3_emission_potential"] = dict(site.nh3_emission_potential)
     if site.ustar_transfer:
         out["ustar_transfer"] = dict(site.ustar_transfer)
+    if site.source_plume:
+        out["source_plume"] = list(site.source_plume)
     if site.changes:
         out["change"] = [c.as_dict() for c in site.changes]
     return out
