@@ -17,7 +17,10 @@ from .layer import DRY_SPECIES
 #: Geometric standard deviation of the Vd model factor per species [1].  Values chosen
 #: from memory of the spread among inferential models in Flechard et al. (2011),
 #: Atmos. Chem. Phys. 11, 2703-2728 (a factor of about 2 for reactive N dry
-#: deposition, smaller for SO2 and HNO3 whose Vd is mostly aerodynamic).
+#: deposition, smaller for SO2 and HNO3 whose Vd is mostly aerodynamic).  The paper
+#: compares the models' fluxes and gives no GSD: taking its spread as one geometric
+#: standard deviation (NH3: 68 % of the draws within a factor of 2, 90 % within 3.1) is
+#: our judgement; ``[uncertainty.vd_gsd]`` sets it per species.
 DEFAULT_VD_GSD = {"SO2": 1.5, "pSO4": 1.8, "HNO3": 1.4, "pNO3": 1.8, "pNH4": 1.8,
                   "NH3": 2.0, "NO2": 2.0}
 
@@ -50,7 +53,9 @@ class UncertaintyOptions:
     vd_gsd : dict
         species -> geometric standard deviation of the Vd model factor [1], log-normal
         with median 1; 1 removes it.  Defaults from
-        memory of the model spread in Flechard et al. (2011), ACP 11, 2703.
+        memory of the model spread in Flechard et al. (2011), ACP 11, 2703; that
+        spread read as one GSD (NH3 2.0: 68 % of the draws within a factor of 2) is
+        our judgement, the paper giving none.
         Systematic: shared by every site and year (``systematic_errors``).
     vd_shared_fraction : float
         Share of the log-variance of every Vd factor that comes from the micrometeorology
