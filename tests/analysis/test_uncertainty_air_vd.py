@@ -53,12 +53,18 @@ def _report_text(folder):
     ("so2_codeposition = false", ()),
 ])
 def test_the_report_names_the_velocities_the_draws_hold(tmp_path, dry, named):
-    """`workbench run` with draws: the report's "Not in the range" names each velocity
-    that depends on the air, with the measured size, only where its option is on."""
+    """`workbench run` with draws: the report's "Not in the range" and the console name
+    each velocity that depends on the air, with the measured size, only where its
+    option is on (before, neither did, and the console said nothing of the draws)."""
     sc = _scenario(tmp_path / "in", dry, "\n[uncertainty]\ndraws = 20\n")
     out = tmp_path / "run"
-    subprocess.run([sys.executable, "-m", "workbench", "run", str(sc), "--out", str(out)],
-                   check=True, capture_output=True, text=True)
+    run = subprocess.run([sys.executable, "-m", "workbench", "run", str(sc), "--out", str(out)],
+                         check=True, capture_output=True, text=True)
+    # the console names the draws, their columns and the velocities held
+    mc = [ln for ln in run.stdout.splitlines() if ln.startswith("Monte Carlo: 20 draws, seed ")]
+    assert len(mc) == 1 and "_p05, _p50 and _p95 of budget.csv and summary.csv" in mc[0]
+    assert ("the draws keep the velocities of the measured air under [dry] so2_codeposition "
+            "= true and nh3_acid_ratio_from_air = true" in mc[0]) == bool(named)
     text = " ".join(_report_text(out).split())
     section = text[text.index("Uncertainty: 5-95 % range"):]
     section = section[:section.index("Drawn with")]             # the text of the ranges
