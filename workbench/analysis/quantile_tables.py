@@ -247,28 +247,44 @@ def pair_words(options) -> str:
 
 
 def draws_in_force(options, bulk=None, gamma=None) -> str:
-    """One line naming how the systematic factors were drawn (the options a reader of a
-    range must know: ``systematic_errors``, the laboratory biases, the land-use class
-    part of the Vd), as the report shows it; "" without options.  `bulk`: as
-    :func:`bulk_in_force`; a bulk factor not drawn is said so beside its option.
+    """One line naming how the factors were drawn (the options a reader of a range must
+    know: the Vd model factors' GSDs and their shared fraction, ``systematic_errors``,
+    the laboratory biases, the land-use class part of the Vd, and the spreads of the
+    random errors of each sample), as the report shows it; "" without options.  `bulk`:
+    as :func:`bulk_in_force`; a bulk factor not drawn is said so beside its option.
     `gamma`: whether the Gamma_s factor was drawn (:func:`gamma_words`; named only
-    then)."""
+    then).  Before, the line left out the Vd GSDs, which make most of a dry range
+    (docs/methods_uncertainty.md, "Where a range's width comes from"), and the random
+    spreads, and read as the whole list.
+
+    >>> from workbench.analysis.uncertainty import UncertaintyOptions
+    >>> draws_in_force(UncertaintyOptions(draws=10))[:80]
+    'Drawn with vd_gsd = SO2 1.5, pSO4 1.8, HNO3 1.4, pNO3 1.8, pNH4 1.8, NH3 2, NO2 '
+    """
     if options is None:
         return ""
+    gsd = ", ".join(f"{sp} {g:g}" for sp, g in dict(options.vd_gsd).items())
+    random = (f"per sample: air_rel_sd = {options.air_rel_sd:g}, precip_conc_rel_sd = "
+              f"{options.precip_conc_rel_sd:g}, depth_rel_sd = {options.depth_rel_sd:g}, "
+              f"censored_rel_sd = {options.censored_rel_sd:g}, vd_fill_rel_sd = "
+              f"{options.vd_fill_rel_sd:g}; per period: pwm_fill_rel_sd = "
+              f"{options.pwm_fill_rel_sd:g} ")
     drawn, why = bulk_in_force(options, bulk)
     bulk_words = (f"bulk_factor_rel_sd = {getattr(options, 'bulk_factor_rel_sd', 0.0):g}, "
                   f"bulk_factor_ion_correlation = "
                   f"{getattr(options, 'bulk_factor_ion_correlation', 1.0):g}"
                   + (f" ({why})" if why else "") + ", ")
-    return (f"Drawn with systematic_errors = \"{options.systematic_errors}\", "
+    return (f"Drawn with vd_gsd = {gsd} (vd_shared_fraction = "
+            f"{options.vd_shared_fraction:g}), systematic_errors = "
+            f"\"{options.systematic_errors}\", "
             f"lab_bias_precip_rel_sd = {options.lab_bias_precip_rel_sd:g}, "
             f"lab_bias_air_rel_sd = {options.lab_bias_air_rel_sd:g}, "
             f"vd_class_fraction = {options.vd_class_fraction:g}, "
             f"vd_site_gsd = {getattr(options, 'vd_site_gsd', 1.0):g}, "
             f"lab_bias_filter_pack = {str(getattr(options, 'lab_bias_filter_pack', False)).lower()}, "
             + bulk_words + gamma_words(options, gamma) + pair_words(options)
-            + f"gauge_catch_rel_sd = {options.gauge_catch_rel_sd:g} per gauge period "
-            f"({number(options.draws)} draws, seed {options.seed}).")
+            + f"gauge_catch_rel_sd = {options.gauge_catch_rel_sd:g} per gauge period; "
+            + random + f"({number(options.draws)} draws, seed {options.seed}).")
 
 
 def report_section(table, to_html, options=None, text_options=None, bulk=None,
