@@ -73,7 +73,8 @@ def test_the_report_names_the_velocities_the_draws_hold(tmp_path, dry, named):
         assert words in left
     if named:
         assert "keeps the velocities computed from the measured air" in left
-        assert "within 4 % (co-deposition)" in left and "within 8 %" in left
+        assert "dry SO2 within 4 % of the model run on the drawn air" in left
+        assert "dry NH3 within 8 %" in left and "quantiles within 1.5 %" in left
     else:
         assert "measured air" not in section and "so2_codeposition" not in section
 
@@ -82,7 +83,8 @@ def test_report_text_names_only_the_options_in_force():
     opt = U.UncertaintyOptions(draws=10)
     assert "measured air" not in QT.report_text(opt)
     one = QT.report_text(opt, air_vd=("so2_codeposition",))
-    assert "so2_codeposition" in one and "nh3_acid_ratio_from_air)" not in one
+    assert "so2_codeposition" in one and "dry SO2 within 4 %" in one
+    assert "nh3_acid_ratio_from_air" not in one and "dry NH3" not in one
 
 
 def _refused(sc):

@@ -26,13 +26,15 @@ AIR_DEPENDENT_VD = {
 }
 #: What that leaves out, measured (benchmarks/air_dependent_vd.py, the invented demo's
 #: ridge site, 2021, default [uncertainty], 1,000 draws, seed 12345, against the engine
-#: run on the drawn air; docs/methods_uncertainty.md).
-AIR_DEPENDENT_VD_MEASURED = (
-    "measured on the invented demo's ridge site in 2021, 1,000 draws of the default "
-    "errors: a draw's dry SO2 within 4 % (co-deposition) and its dry NH3 within 8 % "
-    "(acid ratio) of the model run on the drawn air in 95 % of the draws, up to 7 % and "
-    "13 %; the 5, 50 and 95 % quantiles within 1.5 %, the Vd factors making most of the "
-    "range")
+#: run on the drawn air; docs/methods_uncertainty.md): per option, and for both.
+AIR_DEPENDENT_VD_MEASURED = {
+    "so2_codeposition": "a draw's dry SO2 within 4 % of the model run on the drawn air in "
+                        "95 % of the draws (up to 7 %)",
+    "nh3_acid_ratio_from_air": "a draw's dry NH3 within 8 % of the model run on the drawn "
+                               "air in 95 % of the draws (up to 13 %)",
+}
+AIR_DEPENDENT_VD_QUANTILES = ("the 5, 50 and 95 % quantiles within 1.5 %, the Vd factors "
+                              "making most of the range")
 #: Totals of the budget (element_pathway), as in :func:`workbench.budget._totals`.
 TOTALS = ("S_wet", "S_dry", "S_total", "N_wet", "N_dry", "N_total")
 
@@ -407,11 +409,14 @@ def report_text(options, bulk=None, gamma=None, air_vd=()) -> str:
     if net and not gamma_drawn:
         left += ("; the stomatal NH3 emission potential Gamma_s of the net NH3 exchange "
                  "(not drawn: nh3_gamma_gsd = 1)")
-    held = [AIR_DEPENDENT_VD[k] for k in AIR_DEPENDENT_VD if k in tuple(air_vd)]
+    held = [k for k in AIR_DEPENDENT_VD if k in tuple(air_vd)]
     if held:
-        left += ("; the change of " + " and of ".join(held) + ": a draw moves each "
-                 "concentration but keeps the velocities computed from the measured air "
-                 "(" + AIR_DEPENDENT_VD_MEASURED + "; docs/methods_uncertainty.md, "
+        left += ("; the change of " + " and of ".join(AIR_DEPENDENT_VD[k] for k in held)
+                 + ": a draw moves each concentration but keeps the velocities computed "
+                 "from the measured air (measured on the invented demo's ridge site in "
+                 "2021, 1,000 draws of the default errors: "
+                 + ", ".join(AIR_DEPENDENT_VD_MEASURED[k] for k in held) + "; "
+                 + AIR_DEPENDENT_VD_QUANTILES + "; docs/methods_uncertainty.md, "
                  "\"Velocities that depend on the air\")")
     if excluded:
         left += ("; the assumption of bulk_correction = \"exclude_particles\" that a bulk "
