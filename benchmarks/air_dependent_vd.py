@@ -20,7 +20,9 @@ placed on the grid (linear in log c: the grid is fine enough that ``--check`` en
 runs on the drawn air itself agree to the digits printed).  Only the air errors move
 a ratio: the other factors (Vd, class, site) multiply the fixed and the exact
 deposition alike and cancel in their ratio; the full draws' quantiles are shown both
-ways.
+ways.  It also prints what a drawn ammonium split (``pair_shift_ammonium``, s = -0.3
+to 0.3) would do to the ratio's species at the point (the reason the draws refuse it
+under these options).
 
 Run: ``python benchmarks/air_dependent_vd.py [--site ridge] [--year 2021] [--draws
 1000] [--check 3]`` (about 30 engine runs of one site-year, a few minutes).
@@ -178,6 +180,19 @@ def measure(case, base, work, site, year, draws, seed, grid, check):
         print(f"{rec:18s} {np.median(d):12.2e} {np.quantile(d, 0.95):10.2e} {d.max():10.2e}"
               f" {rel[:, 0, ri].mean():+9.1e}   " + " ".join(f"{v:.3f}" for v in qf)
               + " -> " + " ".join(f"{v:.3f}" for v in qe))
+    if case == "codeposition":
+        # a drawn ammonium split (pair_shift_ammonium): NH3 times 1 + s (s < 0) or plus
+        # s pNH4 (s > 0) moves the NH3/SO2 ratio by that factor; the draws keep Vd(SO2)
+        nh3 = air["NH3 [ug/m3]"].to_numpy(float)[j] / MOLAR["NH3"]
+        nh4 = air["pNH4 [ug/m3]"].to_numpy(float)[j] / 18.039
+        for sh in (-0.3, -0.1, 0.1, 0.3):
+            f = np.full(len(keys), 1.0 + sh) if sh < 0 else (nh3 + sh * nh4) / nh3
+            rs = _on_grid(log_grid, table, np.log(f)[None])[0]                 # (n, P, R)
+            with np.errstate(invalid="ignore", divide="ignore"):
+                dev = (contrib0 * rs).sum(0) / contrib0.sum(0) - 1.0
+            print(f"pair_shift_ammonium s = {sh:+.1f}: SO2 exact / fixed Vd - 1: " + ", ".join(
+                f"{rec} {dev[0, ri]:+.3f}" for ri, rec in enumerate(ds["receptor"].values)
+                if np.isfinite(dev[0, ri])))
     if case == "acid_ratio":
         # a drawn ammonium split (pair_shift_ammonium, deposition-only NH3): s < 0 keeps
         # (1 + s) NH3, the acid ratio over 1 + s; s > 0 adds s pNH4 to NH3, the ratio

@@ -177,7 +177,8 @@ class UncertaintyOptions:
         apart from the nitrate's (its own stream).  [0, 0] (default) switches it off.
         With ``nh3_acid_ratio_from_air`` a drawn share of either pair is refused
         under ``"bidirectional"`` and under the humidity cuticle of the
-        deposition-only NH3 (:func:`pair_shift_refusal`).
+        deposition-only NH3, and with ``so2_codeposition`` a drawn share of the
+        ammonium pair (:func:`pair_shift_refusal`).
     explain_ranges : bool
         ``workbench run`` also writes ``range_shares.csv``: each drawn factor's share of
         the variance of the dry and total S and N at every site, receptor and period
@@ -319,7 +320,11 @@ def pair_shift_refusal(dry_options, options) -> tuple | None:
     ``"auto"`` with a scheme whose NH3 takes it: Wesely 1989).  Before, the
     deposition-only case was let through: on the demo's ridge (2021) a share s = -0.3
     of the NH3 left the drawn NH3 25 % below the model run on the changed air, s = 0.3
-    of the pNH4 15 % above it (benchmarks/air_dependent_vd.py).
+    of the pNH4 15 % above it (benchmarks/air_dependent_vd.py).  With
+    ``so2_codeposition`` the SO2 surface resistance takes the NH3/SO2 ratio: a drawn
+    ammonium split moves it (s = -0.3: the model's dry SO2 12 % below the draws on the
+    ridge's conifer forest, which a split was not to touch), so that split is refused
+    too; the nitrate split leaves the ratio as it is.
 
     Parameters
     ----------
@@ -332,6 +337,12 @@ def pair_shift_refusal(dry_options, options) -> tuple | None:
         The first ``pair_shift_<pair>`` key drawn and the reason, in words.
     """
     drawn = [p for p in PAIR_SHIFT_PAIRS if options.pair_shift(p) != (0.0, 0.0)]
+    if "ammonium" in drawn and getattr(dry_options, "so2_codeposition", False):
+        return ("pair_shift_ammonium",
+                "a drawn ammonium split cannot be exact with [dry] so2_codeposition = true: "
+                "the SO2 surface resistance takes the NH3/SO2 ratio of the air, so moving "
+                "NH3 to or from pNH4 changes the Vd of SO2, which the draws (on the "
+                "velocities of the measured air) cannot follow")
     if not drawn or not getattr(dry_options, "nh3_acid_ratio_from_air", False):
         return None
     if getattr(dry_options, "nh3_treatment", None) == "bidirectional":
