@@ -308,3 +308,18 @@ def test_air_thousand_slip_benchmark_counts_false_alarms_and_detections():
     assert [r[0] for r in rows] == ["genuine", "ng/m3"]
     assert rows[0][4] == 0.0 and rows[1][4] > 0.5         # a farm: no alarm; ng/m3 found
     assert bench.demo_fell_in_ng() == (416, 416)
+
+
+def test_air_dependent_vd_measures_the_fixed_velocities(capsys):
+    """benchmarks/air_dependent_vd.py (docs/methods_uncertainty.md, "Velocities that
+    depend on the air"): on a coarse grid and few draws it still prints its table and
+    its check against the engine on the drawn air."""
+    bench = _load("air_dependent_vd")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        out = bench.main(["--draws", "50", "--grid", "3", "--check", "1",
+                          "--case", "codeposition"])
+    text = capsys.readouterr().out
+    assert "check draw 0" in text and "conifer_forest" in text
+    got = out["codeposition"]["conifer_forest"]
+    assert 0 < got["median"] < got["max"] < 0.2

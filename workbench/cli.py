@@ -10,7 +10,7 @@ limit) and interrupts.  A run folder is written whole or not at all
 Where the parts are: ``workbench check`` (:func:`cmd_check`, :func:`absent_site_lines`)
 in :mod:`workbench.cli_check`; what a run prints after it (:func:`status_lines`,
 :func:`run_span_notes`, :func:`site_status_lines`, :func:`failing_lines`,
-:func:`run_note_lines`) in
+:func:`run_note_lines`, :func:`uncertainty_lines`) in
 :mod:`workbench.cli_status`; the
 terminal (:class:`_LineEnd`, Ctrl-C) in :mod:`workbench.cli_terminal`; ``verify`` and
 ``compare`` in :mod:`workbench.cli_runs`.  This module re-exports them, so that
@@ -30,7 +30,7 @@ from .cli_check import (_check_grid_only, _inputs_text, _progress,  # noqa: F401
                         absent_site_lines, cmd_check)
 # what a run prints after it (defined here before)
 from .cli_status import (failing_lines, run_note_lines, run_span_notes,  # noqa: F401
-                         site_status_lines, status_lines)
+                         site_status_lines, status_lines, uncertainty_lines)
 # the terminal: stderr's open line, Ctrl-C (defined here before)
 from .cli_terminal import (_LineEnd, _catch_ctrl_c, _end_line,  # noqa: F401
                            _in_gc_callback, _on_ctrl_c)
@@ -194,6 +194,8 @@ def cmd_run(args) -> int:
     for line in site_status_lines(result.table):
         print(line)
     for line in failing_lines(result.table):         # totals that are not a full period's
+        print(line)
+    for line in uncertainty_lines(args.out, result):  # the draws, where they were made
         print(line)
     for line in _note_lines(result, args.scenario, said):   # report.html's "Notes"
         print(line)

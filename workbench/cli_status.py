@@ -218,3 +218,33 @@ def run_note_lines(notes, site_ids=(), base=None, said=(), width=None,
                                    subsequent_indent="    ", break_long_words=False,
                                    break_on_hyphens=False))
     return lines
+
+
+def uncertainty_lines(out, result) -> list[str]:
+    """One line on the Monte Carlo of the run folder `out` (none without draws): its
+    draws and seed (as its provenance.json records them), the columns that hold its
+    quantiles and where the report says what a range holds; and, where ``[dry]
+    so2_codeposition`` or ``nh3_acid_ratio_from_air`` was on in `result`, that the draws
+    keep the velocities of the measured air (before, the console said nothing of the
+    draws at all); wrapped to :data:`NOTE_WIDTH` characters, as the run's notes."""
+    import json
+    from pathlib import Path
+    try:
+        prov = json.loads((Path(out) / "provenance.json").read_text(encoding="utf-8"))
+        unc = prov["scenario"]["uncertainty"]
+        draws, seed = int(unc["draws"]), unc["seed"]
+    except (OSError, ValueError, KeyError, TypeError):
+        return []
+    if draws < 1:
+        return []
+    from .analysis.uncertainty import air_vd_state
+    line = (f"Monte Carlo: {draws:,} draws, seed {seed}: the 5, 50 and 95 % quantiles are "
+            "the columns ending _p05, _p50 and _p95 of budget.csv and summary.csv; what a "
+            "range holds and leaves out: report.html, section Uncertainty")
+    held = air_vd_state(result)
+    if held:
+        line += ("; the draws keep the velocities of the measured air under [dry] "
+                 + " and ".join(f"{k} = true" for k in held)
+                 + " (docs/methods_uncertainty.md, \"Velocities that depend on the air\")")
+    return textwrap.wrap(line, width=NOTE_WIDTH, subsequent_indent="  ",
+                         break_long_words=False, break_on_hyphens=False)

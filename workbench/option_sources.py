@@ -219,7 +219,8 @@ UNCERTAINTY = {
     "draws": ("our choice", "0, off: the Monte Carlo costs time and is asked for"),
     "seed": ("our choice", "a fixed seed, so that runs repeat"),
     "vd_gsd": ("from memory", "the model spread in Flechard et al. (2011), Atmos. Chem. "
-               "Phys. 11, 2703 (docs/methods_uncertainty.md)"),
+               "Phys. 11, 2703 (docs/methods_uncertainty.md); read as one geometric "
+               "standard deviation by our judgement (the paper gives no GSD)"),
     "vd_shared_fraction": ("our choice", "0.5, no published value"),
     "air_rel_sd": ("from memory", "5 %, network QA of filter packs and denuders"),
     "precip_conc_rel_sd": ("from memory", "5 %, network QA of ion chromatography"),

@@ -112,3 +112,19 @@ def test_the_sensitivity_page_carries_it(tiny, tmp_path):
     out = write_sensitivity(sc, tmp_path / "sens", quiet=True)
     html = out["sensitivity.html"].read_text()
     assert "The figures show site quill, receptor grass, period 2021-02" in html
+
+
+def test_the_line_of_options_names_the_vd_gsds_and_the_random_spreads():
+    """The report's "Drawn with" line left out the Vd model factors' GSDs, which make
+    most of a dry range (the NH3 Vd's 2.0 above all), and the spreads of the random
+    errors, while naming the laboratory biases and the class fraction: it read as the
+    whole list of what was drawn.  Now each is named with its value, a changed one too."""
+    from workbench.analysis.quantile_tables import draws_in_force
+    line = draws_in_force(U.UncertaintyOptions(draws=10))
+    assert "vd_gsd = SO2 1.5, pSO4 1.8, HNO3 1.4, pNO3 1.8, pNH4 1.8, NH3 2, NO2 2" in line
+    assert "vd_shared_fraction = 0.5" in line
+    for words in ("air_rel_sd = 0.05", "precip_conc_rel_sd = 0.05", "depth_rel_sd = 0.05",
+                  "censored_rel_sd = 0.577", "vd_fill_rel_sd = 0.3", "pwm_fill_rel_sd = 0.3"):
+        assert words in line
+    changed = U.UncertaintyOptions.from_dict({"draws": 10, "vd_gsd": {"NH3": 1.5}})
+    assert "NH3 1.5," in draws_in_force(changed) and "SO2 1.5," in draws_in_force(changed)

@@ -17,6 +17,24 @@ from ..units import element_deposition_in
 #: Quantiles reported [1] and the suffixes of their columns.
 QUANTILES = (0.05, 0.5, 0.95)
 SUFFIXES = ("_p05", "_p50", "_p95")
+#: ``[dry]`` options that make a velocity depend on the measured air, which the draws
+#: hold at the point's velocities: option -> what it moves, in the report's words.
+AIR_DEPENDENT_VD = {
+    "so2_codeposition": "Vd(SO2) with the NH3/SO2 ratio of the air (so2_codeposition)",
+    "nh3_acid_ratio_from_air": ("Vd(NH3) with the acid ratio (2 SO2 + HNO3)/NH3 of the air "
+                                "(nh3_acid_ratio_from_air)"),
+}
+#: What that leaves out, measured (benchmarks/air_dependent_vd.py, the invented demo's
+#: ridge site, 2021, default [uncertainty], 1,000 draws, seed 12345, against the engine
+#: run on the drawn air; docs/methods_uncertainty.md): per option, and for both.
+AIR_DEPENDENT_VD_MEASURED = {
+    "so2_codeposition": "a draw's dry SO2 within 4 % of the model run on the drawn air in "
+                        "95 % of the draws (up to 7 %)",
+    "nh3_acid_ratio_from_air": "a draw's dry NH3 within 8 % of the model run on the drawn "
+                               "air in 95 % of the draws (up to 13 %)",
+}
+AIR_DEPENDENT_VD_QUANTILES = ("the 5, 50 and 95 % quantiles within 1.5 %, the Vd factors "
+                              "making most of the range")
 #: Totals of the budget (element_pathway), as in :func:`workbench.budget._totals`.
 TOTALS = ("S_wet", "S_dry", "S_total", "N_wet", "N_dry", "N_total")
 
@@ -231,32 +249,48 @@ def pair_words(options) -> str:
 
 
 def draws_in_force(options, bulk=None, gamma=None) -> str:
-    """One line naming how the systematic factors were drawn (the options a reader of a
-    range must know: ``systematic_errors``, the laboratory biases, the land-use class
-    part of the Vd), as the report shows it; "" without options.  `bulk`: as
-    :func:`bulk_in_force`; a bulk factor not drawn is said so beside its option.
+    """One line naming how the factors were drawn (the options a reader of a range must
+    know: the Vd model factors' GSDs and their shared fraction, ``systematic_errors``,
+    the laboratory biases, the land-use class part of the Vd, and the spreads of the
+    random errors of each sample), as the report shows it; "" without options.  `bulk`:
+    as :func:`bulk_in_force`; a bulk factor not drawn is said so beside its option.
     `gamma`: whether the Gamma_s factor was drawn (:func:`gamma_words`; named only
-    then)."""
+    then).  Before, the line left out the Vd GSDs, which make most of a dry range
+    (docs/methods_uncertainty.md, "Where a range's width comes from"), and the random
+    spreads, and read as the whole list.
+
+    >>> from workbench.analysis.uncertainty import UncertaintyOptions
+    >>> draws_in_force(UncertaintyOptions(draws=10))[:80]
+    'Drawn with vd_gsd = SO2 1.5, pSO4 1.8, HNO3 1.4, pNO3 1.8, pNH4 1.8, NH3 2, NO2 '
+    """
     if options is None:
         return ""
+    gsd = ", ".join(f"{sp} {g:g}" for sp, g in dict(options.vd_gsd).items())
+    random = (f"per sample: air_rel_sd = {options.air_rel_sd:g}, precip_conc_rel_sd = "
+              f"{options.precip_conc_rel_sd:g}, depth_rel_sd = {options.depth_rel_sd:g}, "
+              f"censored_rel_sd = {options.censored_rel_sd:g}, vd_fill_rel_sd = "
+              f"{options.vd_fill_rel_sd:g}; per period: pwm_fill_rel_sd = "
+              f"{options.pwm_fill_rel_sd:g} ")
     drawn, why = bulk_in_force(options, bulk)
     bulk_words = (f"bulk_factor_rel_sd = {getattr(options, 'bulk_factor_rel_sd', 0.0):g}, "
                   f"bulk_factor_ion_correlation = "
                   f"{getattr(options, 'bulk_factor_ion_correlation', 1.0):g}"
                   + (f" ({why})" if why else "") + ", ")
-    return (f"Drawn with systematic_errors = \"{options.systematic_errors}\", "
+    return (f"Drawn with vd_gsd = {gsd} (vd_shared_fraction = "
+            f"{options.vd_shared_fraction:g}), systematic_errors = "
+            f"\"{options.systematic_errors}\", "
             f"lab_bias_precip_rel_sd = {options.lab_bias_precip_rel_sd:g}, "
             f"lab_bias_air_rel_sd = {options.lab_bias_air_rel_sd:g}, "
             f"vd_class_fraction = {options.vd_class_fraction:g}, "
             f"vd_site_gsd = {getattr(options, 'vd_site_gsd', 1.0):g}, "
             f"lab_bias_filter_pack = {str(getattr(options, 'lab_bias_filter_pack', False)).lower()}, "
             + bulk_words + gamma_words(options, gamma) + pair_words(options)
-            + f"gauge_catch_rel_sd = {options.gauge_catch_rel_sd:g} per gauge period "
-            f"({number(options.draws)} draws, seed {options.seed}).")
+            + f"gauge_catch_rel_sd = {options.gauge_catch_rel_sd:g} per gauge period; "
+            + random + f"({number(options.draws)} draws, seed {options.seed}).")
 
 
 def report_section(table, to_html, options=None, text_options=None, bulk=None,
-                   gamma=None) -> list:
+                   gamma=None, air_vd=()) -> list:
     """HTML parts of the report: the 5-95 % range of every total (none without draws).
 
     Parameters
@@ -289,13 +323,14 @@ def report_section(table, to_html, options=None, text_options=None, bulk=None,
                                       "range_note": "the range covers"})
     return ["<h2>Uncertainty: 5-95 % range of every total [kg/ha/yr of S or N]</h2>",
             "<p>" + html.escape(report_text(options if text_options is None
-                                            else text_options, bulk, gamma)) + "</p>",
+                                            else text_options, bulk, gamma, air_vd))
+            + "</p>",
             "<p class='draws'>" + html.escape(draws_in_force(
                 options, bulk, gamma is not None and gamma[1])) + "</p>",
             to_html(frame)]
 
 
-def report_text(options, bulk=None, gamma=None) -> str:
+def report_text(options, bulk=None, gamma=None, air_vd=()) -> str:
     """What the ranges hold and leave out, as the report says it, for the options the
     draws were made with (docs/methods_uncertainty.md, "What a range covers").
 
@@ -321,6 +356,12 @@ def report_text(options, bulk=None, gamma=None) -> str:
         bidirectional model, and its stomatal emission potential Gamma_s was drawn
         (``nh3_gamma_gsd`` > 1 at a site with an emission part): named as drawn only
         then; a net exchange without the draw names Gamma_s as not in the range.
+    air_vd : sequence of str, optional
+        The ``[dry]`` options in force that make a velocity depend on the measured air
+        (:data:`AIR_DEPENDENT_VD`: ``so2_codeposition``, ``nh3_acid_ratio_from_air``):
+        the draws move the concentrations but keep the velocities of the measured air,
+        named as not in the range with the error measured on the demo (before, the
+        text said nothing of it, and the ranges read as if they held it).
     """
     shared = getattr(options, "systematic_errors", "shared") == "shared"
     site_vd = float(getattr(options, "vd_site_gsd", 1.0)) > 1.0
@@ -368,6 +409,15 @@ def report_text(options, bulk=None, gamma=None) -> str:
     if net and not gamma_drawn:
         left += ("; the stomatal NH3 emission potential Gamma_s of the net NH3 exchange "
                  "(not drawn: nh3_gamma_gsd = 1)")
+    held = [k for k in AIR_DEPENDENT_VD if k in tuple(air_vd)]
+    if held:
+        left += ("; the change of " + " and of ".join(AIR_DEPENDENT_VD[k] for k in held)
+                 + ": a draw moves each concentration but keeps the velocities computed "
+                 "from the measured air (measured on the invented demo's ridge site in "
+                 "2021, 1,000 draws of the default errors: "
+                 + ", ".join(AIR_DEPENDENT_VD_MEASURED[k] for k in held) + "; "
+                 + AIR_DEPENDENT_VD_QUANTILES + "; docs/methods_uncertainty.md, "
+                 "\"Velocities that depend on the air\")")
     if excluded:
         left += ("; the assumption of bulk_correction = \"exclude_particles\" that a bulk "
                  "collector's samples hold the particle dry deposition of the hours it ran "

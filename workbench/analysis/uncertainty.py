@@ -191,7 +191,15 @@ def nh3_gamma_state(result) -> tuple:
     return net, bool(getattr(q, "nh3_gamma_drawn", False))
 
 
-def report_section(table, to_html, options=None, bulk=None, gamma=None) -> list:
+def air_vd_state(result) -> tuple:
+    """The ``[dry]`` options of a run in force that make a velocity depend on the
+    measured air (:data:`workbench.analysis.quantile_tables.AIR_DEPENDENT_VD`), which
+    the draws hold at the point's velocities: named in the report's text."""
+    dry = result.options.get("dry")
+    return tuple(k for k in _quantile_tables.AIR_DEPENDENT_VD if getattr(dry, k, False))
+
+
+def report_section(table, to_html, options=None, bulk=None, gamma=None, air_vd=()) -> list:
     """HTML parts of the report: the 5-95 % range of every total (none without draws),
     :func:`workbench.analysis.quantile_tables.report_section` with the text of what a
     range holds written for `options`, or for the default :class:`UncertaintyOptions`
@@ -202,8 +210,9 @@ def report_section(table, to_html, options=None, bulk=None, gamma=None) -> list:
     that the text names the factor only where it was in force; None: not known (the
     factor is named as drawn wherever ``bulk_factor_rel_sd`` > 0).  `gamma`: ``(net,
     drawn)`` (:func:`nh3_gamma_state`), the Gamma_s factor named as drawn only where it
-    was; None: not named."""
+    was; None: not named.  `air_vd`: :func:`air_vd_state`, the velocities that depend
+    on the air, named as held at the point's."""
     return _quantile_tables.report_section(
         table, to_html, options,
         text_options=UncertaintyOptions() if options is None else options, bulk=bulk,
-        gamma=gamma)
+        gamma=gamma, air_vd=air_vd)
