@@ -19,6 +19,7 @@ import pandas as pd
 import xarray as xr
 
 from .budget_totals import combine_status
+from .report_tables import failing, status_marks
 
 #: The derived sums shown, their words and unit (the order of the tables).
 SHOWN = {"oxidized_N": ("Oxidized N", "kg N/ha/yr"),
@@ -111,18 +112,16 @@ def derived_rates(ds: xr.Dataset, table: pd.DataFrame, dv: xr.Dataset | None = N
 
 def fails(frame: pd.DataFrame, name: str) -> pd.Series:
     """Where the sum `name` of :func:`derived_rates` fails completeness (not missing)."""
-    return ~frame[f"{name}_passes"] & (frame[f"{name}_status"] != "missing")
+    return pd.Series(failing(frame[f"{name}_status"].to_numpy(object),
+                             frame[f"{name}_passes"].to_numpy(object)), index=frame.index)
 
 
 def mark(frame: pd.DataFrame, name: str) -> pd.Series:
-    """The report's mark of each row's sum `name`: ``x`` fails completeness, ``f``
-    flagged but passing, ``p`` partial (a part without data), ``~`` filled, as the
-    report's S and N totals (:func:`workbench.report._pivot_html`)."""
-    st = frame[f"{name}_status"]
-    lacks = frame[f"{name}_missing_components"].str.strip() != ""
-    m = st.map({"flagged": " f", "partial": " p", "filled": " ~"}).fillna("")
-    m = m.where(~(lacks & (st != "partial") & (st != "missing")), m + " p")
-    return m.where(~fails(frame, name), " x" + np.where(lacks, " p", ""))
+    """The report's mark of each row's sum `name` (``x`` fails completeness, ``f``
+    flagged but passing, ``p`` partial or a part without data, ``~`` filled): the
+    totals' rule, :func:`workbench.report_tables.status_marks`."""
+    return pd.Series(status_marks(frame[f"{name}_status"], frame[f"{name}_passes"],
+                                  frame[f"{name}_missing_components"]), index=frame.index)
 
 
 def _value(v, name) -> str:
