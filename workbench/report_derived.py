@@ -67,7 +67,7 @@ def derived_rates(ds: xr.Dataset, table: pd.DataFrame, dv: xr.Dataset | None = N
         both forms of N pass; its failure is the first failing form's (oxidized
         first, the order of docs/budget.md).
     """
-    from .budget_derived import derived, derived_status
+    from .budget_derived import derived, with_derived_status
     if dv is None:
         dv = derived(ds)
     key = ["site", "receptor", "period"]
@@ -90,9 +90,7 @@ def derived_rates(ds: xr.Dataset, table: pd.DataFrame, dv: xr.Dataset | None = N
         share = np.where(n > 0, 100.0 * red / n, np.nan)
     out = frame[key].assign(oxidized_N=ox, reduced_N=red, reduced_share=share,
                             potential_acidity=frame["potential_acidity_eq_ha"].to_numpy(float) * f)
-    t = table[table["period"].astype(str) != "span"]
-    st = derived_status(t).astype({"site": str, "receptor": str, "period": str})
-    out = out.merge(st, on=key, how="left")
+    out = with_derived_status(out, table[table["period"].astype(str) != "span"])
     for name in ("oxidized_N", "reduced_N", "potential_acidity"):
         out[f"{name}_passes"] = out[f"{name}_passes"].fillna(False).astype(bool)
         for c in ("status", "missing_components", "completeness_failure"):
