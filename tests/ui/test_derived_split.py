@@ -85,3 +85,67 @@ def test_network_totals_carry_reduced_share_and_acidity(two_sites_2021):
         assert plain.xs("ridge", level="site")[col].tolist() == ["passes"]
         assert plain.xs("mere", level="site")[col].tolist() == ["passes (without NO2)"]
     assert np.isfinite(plain["potential acidity [eq/ha/yr]"].astype(float)).all()
+
+
+def _network_loop(results, catalogue=None):
+    """The earlier network_derived, kept here word for word as the reference: the
+    derived sums of each run, then its rows picked site by site in a Python loop."""
+    from workbench.report_derived import derived_rates
+    from workbench.tables import budget_table
+    rows = []
+    for r in results:
+        f = derived_rates(r.years, budget_table(r.years))
+        for site in r.years["site"].values.astype(str):
+            if catalogue is not None and site in catalogue.ids:
+                rec = catalogue[site].land_use
+            else:
+                act = r.years["active"].sel(site=site).values
+                rec = str(r.years["receptor"].values[np.flatnonzero(act)[0]])
+            rows.append(f[(f["site"] == site) & (f["receptor"] == str(rec))])
+    if not rows:
+        return pd.DataFrame()
+    return pd.concat(rows, ignore_index=True)
+
+
+def test_network_derived_in_one_merge_equals_the_site_loop(two_sites_2021):
+    """network_derived picks each site's own surface in one merge over every run (the
+    sums from each run's stage graph); the same frame as the loop over sites, with and
+    without the catalogue (without: each site's first active receptor)."""
+    from workbench.ui.apps import NetworkOverview
+    from workbench.ui.derived_split import network_derived
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        net = NetworkOverview.from_scenario(two_sites_2021)
+        results = list(net.results.values())
+        cat = net.session.study.inputs.catalogue
+        for c in (cat, None):
+            want = _network_loop(results, c)
+            got = network_derived(results, c)
+            assert len(got) == len(want) > 0
+            pd.testing.assert_frame_equal(got, want)
+        # a second call reads the sums from the graphs: nothing computed again
+        graphs = {id(r.graph): r.graph for r in results}.values()
+        before = sum(g.counts["year_rates"] for g in graphs)
+        assert before >= 1
+        pd.testing.assert_frame_equal(network_derived(results, cat), _network_loop(results, cat))
+        assert sum(g.counts["year_rates"] for g in graphs) == before
+
+
+def test_split_table_from_the_graph_equals_the_one_from_scratch(session):
+    """The site explorer's split table takes the derived sums from the stage graph
+    (``Result.rates``): the same HTML as computed from scratch, and a redraw of the
+    same result (a unit change) computes them no more."""
+    from workbench.ui.apps import SiteExplorer
+    from workbench.ui.derived_split import n_split_html
+    app = SiteExplorer(session, site="ridge", years=(2020, 2021))
+    rec = app.receptor_w.value
+    for unit in ("kg/ha/yr", "eq/ha/yr"):
+        assert n_split_html(app.result.years, "ridge", rec, unit) == n_split_html(
+            app.result.years, "ridge", rec, unit, rates=app.result.rates(receptors=[rec]))
+    g = app.result.graph
+    before = g.counts["year_rates"]
+    assert before >= 1                     # the explorer's first drawing computed them
+    app.unit_w.value = "eq/ha/yr"
+    app.unit_w.value = "kg/ha/yr"
+    assert g.counts["year_rates"] == before
+    assert app.split_w.value == n_split_html(app.result.years, "ridge", rec, "kg/ha/yr")
