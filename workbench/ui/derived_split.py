@@ -129,22 +129,85 @@ def own_surfaces(years: xr.Dataset, catalogue=None) -> pd.DataFrame:
     return out[out["receptor"].isin(recs)].reset_index(drop=True)     # a receptor run
 
 
+def rates_side_by_side(years: list, picks) -> pd.DataFrame:
+    """The derived sums of each run's picked (site, receptor) pairs in one
+    :func:`workbench.report_derived.derived_rates` call.
+
+    Each run's years are cut to the receptors picked there, their receptor axis named
+    by place (``0``, ``1``...), and the runs put side by side on the site axis (the
+    receptor's name only labels budget.csv's rows: the sums are per pair); the rows
+    read back their receptor's name.  Runs whose periods, components or number of
+    picked receptors differ, or that share a site, are computed one by one.
+
+    Parameters
+    ----------
+    years : list of xarray.Dataset
+        Each run's ``years``.
+    picks : sequence
+        Per run, its ``(site, receptor)`` pairs.
+
+    Returns
+    -------
+    DataFrame
+        :func:`workbench.report_derived.derived_rates`' columns, the picked pairs
+        only, in the order of the runs and their sites; ``_run`` the run's place.
+    """
+    from ..report_derived import derived_rates
+    from ..tables import budget_table
+    cut, names = [], []
+    for i, (y, p) in enumerate(zip(years, picks)):
+        recs = sorted({str(r) for _, r in p})
+        cut.append(y.sel(receptor=recs).assign_coords(receptor=[str(k) for k in range(len(recs))]))
+        names.append(pd.DataFrame({"_run": i, "_slot": [str(k) for k in range(len(recs))],
+                                   "receptor": recs}))
+    wanted = pd.concat([pd.DataFrame(list(p), columns=["site", "receptor"], dtype=object)
+                        .assign(_run=i) for i, p in enumerate(picks)], ignore_index=True)
+    sites = np.concatenate([y["site"].values.astype(str) for y in cut])
+    same = all(y.sizes["receptor"] == cut[0].sizes["receptor"]
+               and np.array_equal(y["period"].values, cut[0]["period"].values)
+               and np.array_equal(y["component"].values, cut[0]["component"].values)
+               for y in cut)
+    if same and len(set(sites)) == len(sites):
+        together = xr.concat(cut, dim="site", data_vars="minimal", coords="minimal",
+                             compat="override", join="exact", combine_attrs="override")
+        f = derived_rates(together, budget_table(together)).rename(columns={"receptor": "_slot"})
+        run = pd.Series(np.repeat(np.arange(len(cut)), [y.sizes["site"] for y in cut]),
+                        index=sites)
+        f.insert(0, "_run", run.reindex(f["site"]).to_numpy())
+    else:
+        f = pd.concat([derived_rates(y, budget_table(y)).rename(columns={"receptor": "_slot"})
+                       .assign(_run=i) for i, y in enumerate(cut)], ignore_index=True)
+    f = f.merge(pd.concat(names, ignore_index=True), on=["_run", "_slot"], how="left")
+    f = f.merge(wanted, on=["_run", "site", "receptor"], how="inner")
+    cols = ["_run", "site", "receptor"] + [c for c in f.columns
+                                           if c not in ("_run", "_slot", "site", "receptor")]
+    return f[cols].astype({"site": str, "receptor": str}).reset_index(drop=True)
+
+
 def network_derived(results, catalogue=None) -> pd.DataFrame:
     """The reduced share of N and the potential acidity of every site on its own surface
     (the network overview's receptor, :func:`workbench.ui.summaries.network_table`)
     per year: site, receptor, period, ``reduced_share`` [%], ``potential_acidity``
     [eq ha-1 yr-1] and their ``_status``, ``_passes``, ``_completeness_failure``.
 
-    Each run's sums come from its stage graph (``Result.rates`` of its shown
-    receptors); the rows of every site's own surface are picked in one merge on
-    (run, site, receptor), in the order of the runs and their sites.
+    The runs' years are computed together (:func:`rates_side_by_side`: one call for
+    every site, in place of one per run and a pick per site), through the stage graph
+    the runs share (stage ``network_rates``: a second call computes nothing).
     """
     results = list(results)
-    picks = [own_surfaces(r.years, catalogue).assign(_run=i) for i, r in enumerate(results)]
-    rates = [r.rates(receptors=sorted(set(p["receptor"]))).assign(_run=i)
-             for i, (r, p) in enumerate(zip(results, picks)) if len(p)]
-    if not rates:
+    picks = [own_surfaces(r.years, catalogue) for r in results]
+    keep = [i for i, p in enumerate(picks) if len(p)]
+    if not keep:
         return pd.DataFrame()
-    out = pd.concat(rates, ignore_index=True).merge(
-        pd.concat(picks, ignore_index=True), on=["_run", "site", "receptor"], how="inner")
-    return out.drop(columns="_run")
+    runs = [results[i] for i in keep]
+    pairs = tuple(tuple(zip(picks[i]["site"], picks[i]["receptor"])) for i in keep)
+    graphs = {id(r.graph) for r in runs}
+    graph = runs[0].graph
+    if graph is None or len(graphs) > 1 or any(r.keys.get("years") is None for r in runs):
+        f = rates_side_by_side([r.years for r in runs], pairs)
+    else:
+        from ..graph import Node
+        f = graph.run("network_rates", params={"picks": pairs},
+                      deps={f"run_{i}": Node(r.keys["years"], r.years)
+                            for i, r in enumerate(runs)}).value
+    return f.drop(columns="_run")
