@@ -201,9 +201,9 @@ def network_derived(results, catalogue=None) -> pd.DataFrame:
         return pd.DataFrame()
     runs = [results[i] for i in keep]
     pairs = tuple(tuple(zip(picks[i]["site"], picks[i]["receptor"])) for i in keep)
-    graphs = {id(r.graph) for r in runs}
-    graph = runs[0].graph
-    if graph is None or len(graphs) > 1 or any(r.keys.get("years") is None for r in runs):
+    graph = runs[0].graph              # the runs of one session share their graph
+    if (graph is None or any(r.graph is not graph for r in runs)
+            or any(r.keys.get("years") is None for r in runs)):
         f = rates_side_by_side([r.years for r in runs], pairs)
     else:
         from ..graph import Node
