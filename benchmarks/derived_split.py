@@ -23,7 +23,6 @@ import argparse
 import dataclasses
 import os
 import sys
-import time
 import warnings
 from pathlib import Path
 
@@ -32,20 +31,13 @@ import pandas as pd
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
-
-
-def best(fn, repeat) -> float:
-    """Best wall time of `repeat` calls [s]."""
-    out = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        out.append(time.perf_counter() - t0)
-    return min(out)
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from lazy_hash import best  # noqa: E402  (best-of-n wall time)
 
 
 def site_loop(results, catalogue=None) -> pd.DataFrame:
-    """network_derived before: each run's sums, then its rows picked site by site."""
+    """network_derived before, word for word: each run's sums, then its rows picked
+    site by site (also the reference of tests/ui/test_derived_split.py)."""
     from workbench.report_derived import derived_rates
     from workbench.tables import budget_table
     rows = []

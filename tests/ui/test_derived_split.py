@@ -88,23 +88,16 @@ def test_network_totals_carry_reduced_share_and_acidity(two_sites_2021):
 
 
 def _network_loop(results, catalogue=None):
-    """The earlier network_derived, kept here word for word as the reference: the
-    derived sums of each run, then its rows picked site by site in a Python loop."""
-    from workbench.report_derived import derived_rates
-    from workbench.tables import budget_table
-    rows = []
-    for r in results:
-        f = derived_rates(r.years, budget_table(r.years))
-        for site in r.years["site"].values.astype(str):
-            if catalogue is not None and site in catalogue.ids:
-                rec = catalogue[site].land_use
-            else:
-                act = r.years["active"].sel(site=site).values
-                rec = str(r.years["receptor"].values[np.flatnonzero(act)[0]])
-            rows.append(f[(f["site"] == site) & (f["receptor"] == str(rec))])
-    if not rows:
-        return pd.DataFrame()
-    return pd.concat(rows, ignore_index=True)
+    """The earlier network_derived, kept word for word in benchmarks/derived_split.py
+    (``site_loop``, which times it): each run's sums, then its rows picked site by
+    site in a Python loop."""
+    import importlib.util
+    from pathlib import Path
+    path = Path(__file__).resolve().parents[2] / "benchmarks" / "derived_split.py"
+    spec = importlib.util.spec_from_file_location("bench_derived_split", path)
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module.site_loop(results, catalogue)
 
 
 def test_network_derived_in_one_call_equals_the_site_loop(two_sites_2021):
