@@ -414,7 +414,7 @@ def network_rates(o, picks, **years):
     at once: each run's years cut to its sites' picked receptors, put side by side on
     the site axis and computed in one call (`years`: ``run_0``, ``run_1``... each a
     run's years; `picks`: per run, its ``(site, receptor)`` pairs)."""
-    from .ui.derived_split import rates_side_by_side
+    from .report_derived import rates_side_by_side
     return rates_side_by_side([years[f"run_{i}"] for i in range(len(picks))], picks)
 
 

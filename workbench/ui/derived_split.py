@@ -129,70 +129,16 @@ def own_surfaces(years: xr.Dataset, catalogue=None) -> pd.DataFrame:
     return out[out["receptor"].isin(recs)].reset_index(drop=True)     # a receptor run
 
 
-def rates_side_by_side(years: list, picks) -> pd.DataFrame:
-    """The derived sums of each run's picked (site, receptor) pairs in one
-    :func:`workbench.report_derived.derived_rates` call.
-
-    Each run's years are cut to the receptors picked there, their receptor axis named
-    by place (``0``, ``1``...), and the runs put side by side on the site axis (the
-    receptor's name only labels budget.csv's rows: the sums are per pair); the rows
-    read back their receptor's name.  Runs whose periods, components or number of
-    picked receptors differ, or that share a site, are computed one by one.
-
-    Parameters
-    ----------
-    years : list of xarray.Dataset
-        Each run's ``years``.
-    picks : sequence
-        Per run, its ``(site, receptor)`` pairs.
-
-    Returns
-    -------
-    DataFrame
-        :func:`workbench.report_derived.derived_rates`' columns, the picked pairs
-        only, in the order of the runs and their sites; ``_run`` the run's place.
-    """
-    from ..report_derived import derived_rates
-    from ..tables import budget_table
-    cut, names = [], []
-    for i, (y, p) in enumerate(zip(years, picks)):
-        recs = sorted({str(r) for _, r in p})
-        cut.append(y.sel(receptor=recs).assign_coords(receptor=[str(k) for k in range(len(recs))]))
-        names.append(pd.DataFrame({"_run": i, "_slot": [str(k) for k in range(len(recs))],
-                                   "receptor": recs}))
-    wanted = pd.concat([pd.DataFrame(list(p), columns=["site", "receptor"], dtype=object)
-                        .assign(_run=i) for i, p in enumerate(picks)], ignore_index=True)
-    sites = np.concatenate([y["site"].values.astype(str) for y in cut])
-    same = all(y.sizes["receptor"] == cut[0].sizes["receptor"]
-               and np.array_equal(y["period"].values, cut[0]["period"].values)
-               and np.array_equal(y["component"].values, cut[0]["component"].values)
-               for y in cut)
-    if same and len(set(sites)) == len(sites):
-        together = xr.concat(cut, dim="site", data_vars="minimal", coords="minimal",
-                             compat="override", join="exact", combine_attrs="override")
-        f = derived_rates(together, budget_table(together)).rename(columns={"receptor": "_slot"})
-        run = pd.Series(np.repeat(np.arange(len(cut)), [y.sizes["site"] for y in cut]),
-                        index=sites)
-        f.insert(0, "_run", run.reindex(f["site"]).to_numpy())
-    else:
-        f = pd.concat([derived_rates(y, budget_table(y)).rename(columns={"receptor": "_slot"})
-                       .assign(_run=i) for i, y in enumerate(cut)], ignore_index=True)
-    f = f.merge(pd.concat(names, ignore_index=True), on=["_run", "_slot"], how="left")
-    f = f.merge(wanted, on=["_run", "site", "receptor"], how="inner")
-    cols = ["_run", "site", "receptor"] + [c for c in f.columns
-                                           if c not in ("_run", "_slot", "site", "receptor")]
-    return f[cols].astype({"site": str, "receptor": str}).reset_index(drop=True)
-
-
 def network_derived(results, catalogue=None) -> pd.DataFrame:
     """The reduced share of N and the potential acidity of every site on its own surface
     (the network overview's receptor, :func:`workbench.ui.summaries.network_table`)
     per year: site, receptor, period, ``reduced_share`` [%], ``potential_acidity``
     [eq ha-1 yr-1] and their ``_status``, ``_passes``, ``_completeness_failure``.
 
-    The runs' years are computed together (:func:`rates_side_by_side`: one call for
-    every site, in place of one per run and a pick per site), through the stage graph
-    the runs share (stage ``network_rates``: a second call computes nothing).
+    The runs' years are computed together
+    (:func:`workbench.report_derived.rates_side_by_side`: one call for every site, in
+    place of one per run and a pick per site), through the stage graph the runs share
+    (stage ``network_rates``: a second call computes nothing).
     """
     results = list(results)
     picks = [own_surfaces(r.years, catalogue) for r in results]
@@ -204,6 +150,7 @@ def network_derived(results, catalogue=None) -> pd.DataFrame:
     graph = runs[0].graph              # the runs of one session share their graph
     if (graph is None or any(r.graph is not graph for r in runs)
             or any(r.keys.get("years") is None for r in runs)):
+        from ..report_derived import rates_side_by_side
         f = rates_side_by_side([r.years for r in runs], pairs)
     else:
         from ..graph import Node
