@@ -63,6 +63,19 @@ def test_export_benchmark_sizes_the_figures_and_times_the_session(scenario, tmp_
     assert "load average" in capsys.readouterr().out
 
 
+def test_derived_split_benchmark_checks_old_and_new_alike(tmp_path_factory, capsys):
+    """benchmarks/derived_split.py: the split table from scratch and from the graph, the
+    network's site loop and its one call (each pair checked equal inside); no time
+    asserted."""
+    two = write_demo_subset(tmp_path_factory.mktemp("split"), ("ridge", "mere"), 2021, 2021)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        out = _load("derived_split").main(["--scenario", str(two), "--years", "2021", "2021",
+                                           "--repeat", "1"])
+    assert set(out) == {"split_ratio", "network_cold_ratio", "network_warm_ratio"}
+    assert "network_derived, 2 sites" in capsys.readouterr().out
+
+
 def test_velocities_benchmark_prints_its_sections(scenario, capsys):
     bench = _load("velocities")
     bench.main(["--scenario", str(scenario), "--repeat", "1"])

@@ -37,8 +37,8 @@ from .budget_components import (BULK_CAUGHT_IN, BULK_IONS, COMPONENTS,  # noqa: 
                                 DERIVED_PARTS, FRACTIONS, OMISSIONS, OXIDIZED_N,
                                 PAIRS, PARTICLES, REDUCED_N, STATUS_ORDER)
 # the derived quantities (defined here before)
-from .budget_derived import (derived, derived_status, nitrogen_forms,  # noqa: F401
-                             potential_acidity)
+from .budget_derived import (derived, derived_status, derived_status_variables,  # noqa: F401
+                             nitrogen_forms, potential_acidity, with_derived_status)
 # the options (defined here before)
 from .budget_options import BudgetError, BudgetOptions  # noqa: F401
 # the sums and their status (defined here before)

@@ -1,7 +1,9 @@
 """Quantities derived from the budget's components: oxidized and reduced N, the
 potential acidity, dry and wet shares, the bracket of dry N, the air's total nitrate
 and ammonia + ammonium (:func:`derived`) and the status and completeness of the
-derived sums of summary.csv and budget.nc (:func:`derived_status`); re-exported by :mod:`workbench.budget`.
+derived sums of summary.csv and budget.nc (:func:`derived_status`, put beside the sums
+by :func:`with_derived_status` and :func:`derived_status_variables`); re-exported by
+:mod:`workbench.budget`.
 """
 from __future__ import annotations
 
@@ -87,6 +89,51 @@ def derived_status(table: pd.DataFrame) -> pd.DataFrame:
         out[f"{name}_completeness_failure"] = _first_failure(fails, words,
                                                              np.asarray(parts, dtype=object))
     return out.reset_index()
+
+
+def with_derived_status(frame: pd.DataFrame, table: pd.DataFrame) -> pd.DataFrame:
+    """`frame` (rows per site, receptor and period: summary.csv's, or the derived sums
+    as yearly rates) with the status and completeness of its derived sums from
+    budget.csv's rows `table` (:func:`derived_status`), matched on site, receptor and
+    period, each read as `frame`'s (text where `frame` holds text).  Rows `table` has not are left empty (NaN).
+
+    Returns
+    -------
+    DataFrame
+        `frame`'s rows in their order, then the columns of :func:`derived_status`.
+    """
+    st = derived_status(table)
+    key = ["site", "receptor", "period"]
+    st = st.astype({k: str if frame[k].dtype == object else frame[k].dtype for k in key})
+    return frame.merge(st, on=key, how="left")
+
+
+def derived_status_variables(table: pd.DataFrame, coords: xr.Dataset) -> dict:
+    """The columns of :func:`derived_status` of `table` as variables on the (site,
+    receptor, period) of `coords`, for budget.nc: a pair no site asks for has
+    ``_passes`` false and empty words.
+
+    Returns
+    -------
+    dict
+        name -> DataArray, each with its ``long_name``.
+    """
+    st = derived_status(table).set_index(["site", "receptor", "period"])
+    out = {}
+    for col in st.columns:
+        v = st[col].to_xarray().reindex(site=coords["site"], receptor=coords["receptor"],
+                                        period=coords["period"])
+        passes = col.endswith("_passes")       # a pair no site asks for: false
+        v = v.fillna(False).astype(bool) if passes else v.fillna("").astype(object)
+        v.attrs["long_name"] = (
+            f"{col.split('_status')[0]}: status (docs/budget.md)" if col.endswith("_status")
+            else f"{col.split('_passes')[0]}: every part passes completeness" if passes
+            else f"{col.split('_completeness')[0]}: the first completeness criterion a part "
+                 "fails, with its share and minimum, after the parts failing for it"
+            if col.endswith("_completeness_failure")
+            else f"{col.split('_missing')[0]}: components without data")
+        out[col] = v
+    return out
 
 
 def derived(ds: xr.Dataset) -> xr.Dataset:

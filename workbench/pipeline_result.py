@@ -56,3 +56,20 @@ class Result:
         if self.graph is None or key is None:
             return _stages.derived_quantities(None, self.budget)
         return self.graph.run("derived", deps={"budget": Node(key, self.budget)}).value
+
+    def rates(self, receptors=None) -> pd.DataFrame:
+        """The derived sums of ``years`` as yearly rates with their completeness
+        (:func:`workbench.report_derived.derived_rates`; `receptors`: those only),
+        from the stage graph: a redraw of the same result computes them once.
+
+        Returns
+        -------
+        pandas.DataFrame
+            Shared with the graph's cache: read it, do not change it in place.
+        """
+        params = {"receptors": None if receptors is None else tuple(str(r) for r in receptors)}
+        key = self.keys.get("years")
+        if self.graph is None or key is None:
+            return _stages.year_rates(None, self.years, **params)
+        return self.graph.run("year_rates", deps={"years": Node(key, self.years)},
+                              params=params).value

@@ -21,7 +21,7 @@ from .report_sections import (_BRACKET_COLUMN, MAX_SITE_FIGURES,  # noqa: F401
                               _totals_heading, _trend_html, scheme_title)
 from .report_numbers import number, table_formatters  # noqa: F401
 from .report_tables import (_FAILS_MARK, _MARK, DIGITS, ROUNDING_FLOOR,  # noqa: F401
-                            _fails, _headed, _lacks, _pivot_html, _table_html, plain)
+                            _headed, _pivot_html, _table_html, plain)
 
 CAUTION = (
     "Deposition estimates are model-based and uncertain. Dry deposition is inferred from "

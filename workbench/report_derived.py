@@ -2,7 +2,8 @@
 N and the potential acidity as yearly rates per site, receptor and period, each with its
 status and completeness (:func:`derived_rates`), and report.html's section of them
 (:func:`derived_section`).  The site explorer and the network overview read
-:func:`derived_rates` too (:mod:`workbench.ui`).
+:func:`derived_rates` too (:mod:`workbench.ui`; the overview's sites side by side in one
+call, :func:`rates_side_by_side`).
 
 The numbers are those of summary.csv (``oxidized_N_kg_ha``, ``reduced_N_kg_ha``,
 ``potential_acidity_eq_ha`` of the period, :func:`workbench.budget.derived`) times the
@@ -19,6 +20,7 @@ import pandas as pd
 import xarray as xr
 
 from .budget_totals import combine_status
+from .report_tables import failing, status_marks
 
 #: The derived sums shown, their words and unit (the order of the tables).
 SHOWN = {"oxidized_N": ("Oxidized N", "kg N/ha/yr"),
@@ -66,7 +68,7 @@ def derived_rates(ds: xr.Dataset, table: pd.DataFrame, dv: xr.Dataset | None = N
         both forms of N pass; its failure is the first failing form's (oxidized
         first, the order of docs/budget.md).
     """
-    from .budget_derived import derived, derived_status
+    from .budget_derived import derived, with_derived_status
     if dv is None:
         dv = derived(ds)
     key = ["site", "receptor", "period"]
@@ -89,9 +91,7 @@ def derived_rates(ds: xr.Dataset, table: pd.DataFrame, dv: xr.Dataset | None = N
         share = np.where(n > 0, 100.0 * red / n, np.nan)
     out = frame[key].assign(oxidized_N=ox, reduced_N=red, reduced_share=share,
                             potential_acidity=frame["potential_acidity_eq_ha"].to_numpy(float) * f)
-    t = table[table["period"].astype(str) != "span"]
-    st = derived_status(t).astype({"site": str, "receptor": str, "period": str})
-    out = out.merge(st, on=key, how="left")
+    out = with_derived_status(out, table[table["period"].astype(str) != "span"])
     for name in ("oxidized_N", "reduced_N", "potential_acidity"):
         out[f"{name}_passes"] = out[f"{name}_passes"].fillna(False).astype(bool)
         for c in ("status", "missing_components", "completeness_failure"):
@@ -109,20 +109,72 @@ def derived_rates(ds: xr.Dataset, table: pd.DataFrame, dv: xr.Dataset | None = N
     return out.reset_index(drop=True)
 
 
+def rates_side_by_side(years: list, picks) -> pd.DataFrame:
+    """The derived sums of each run's picked (site, receptor) pairs in one
+    :func:`workbench.report_derived.derived_rates` call.
+
+    Each run's years are cut to the receptors picked there, their receptor axis named
+    by place (``0``, ``1``...), and the runs put side by side on the site axis (the
+    receptor's name only labels budget.csv's rows: the sums are per pair); the rows
+    read back their receptor's name.  Runs whose periods, components or number of
+    picked receptors differ, or that share a site, are computed one by one.
+
+    Parameters
+    ----------
+    years : list of xarray.Dataset
+        Each run's ``years``.
+    picks : sequence
+        Per run, its ``(site, receptor)`` pairs.
+
+    Returns
+    -------
+    DataFrame
+        :func:`workbench.report_derived.derived_rates`' columns, the picked pairs
+        only, in the order of the runs and their sites; ``_run`` the run's place.
+    """
+    from .tables import budget_table
+    cut, names = [], []
+    for i, (y, p) in enumerate(zip(years, picks)):
+        recs = sorted({str(r) for _, r in p})
+        cut.append(y.sel(receptor=recs).assign_coords(receptor=[str(k) for k in range(len(recs))]))
+        names.append(pd.DataFrame({"_run": i, "_slot": [str(k) for k in range(len(recs))],
+                                   "receptor": recs}))
+    wanted = pd.concat([pd.DataFrame(list(p), columns=["site", "receptor"], dtype=object)
+                        .assign(_run=i) for i, p in enumerate(picks)], ignore_index=True)
+    sites = np.concatenate([y["site"].values.astype(str) for y in cut])
+    same = all(y.sizes["receptor"] == cut[0].sizes["receptor"]
+               and np.array_equal(y["period"].values, cut[0]["period"].values)
+               and np.array_equal(y["component"].values, cut[0]["component"].values)
+               for y in cut)
+    if same and len(set(sites)) == len(sites):
+        together = xr.concat(cut, dim="site", data_vars="minimal", coords="minimal",
+                             compat="override", join="exact", combine_attrs="override")
+        f = derived_rates(together, budget_table(together)).rename(columns={"receptor": "_slot"})
+        run = pd.Series(np.repeat(np.arange(len(cut)), [y.sizes["site"] for y in cut]),
+                        index=sites)
+        f.insert(0, "_run", run.reindex(f["site"]).to_numpy())
+    else:
+        f = pd.concat([derived_rates(y, budget_table(y)).rename(columns={"receptor": "_slot"})
+                       .assign(_run=i) for i, y in enumerate(cut)], ignore_index=True)
+    f = f.merge(pd.concat(names, ignore_index=True), on=["_run", "_slot"], how="left")
+    f = f.merge(wanted, on=["_run", "site", "receptor"], how="inner")
+    cols = ["_run", "site", "receptor"] + [c for c in f.columns
+                                           if c not in ("_run", "_slot", "site", "receptor")]
+    return f[cols].astype({"site": str, "receptor": str}).reset_index(drop=True)
+
+
 def fails(frame: pd.DataFrame, name: str) -> pd.Series:
     """Where the sum `name` of :func:`derived_rates` fails completeness (not missing)."""
-    return ~frame[f"{name}_passes"] & (frame[f"{name}_status"] != "missing")
+    return pd.Series(failing(frame[f"{name}_status"].to_numpy(object),
+                             frame[f"{name}_passes"].to_numpy(object)), index=frame.index)
 
 
 def mark(frame: pd.DataFrame, name: str) -> pd.Series:
-    """The report's mark of each row's sum `name`: ``x`` fails completeness, ``f``
-    flagged but passing, ``p`` partial (a part without data), ``~`` filled, as the
-    report's S and N totals (:func:`workbench.report._pivot_html`)."""
-    st = frame[f"{name}_status"]
-    lacks = frame[f"{name}_missing_components"].str.strip() != ""
-    m = st.map({"flagged": " f", "partial": " p", "filled": " ~"}).fillna("")
-    m = m.where(~(lacks & (st != "partial") & (st != "missing")), m + " p")
-    return m.where(~fails(frame, name), " x" + np.where(lacks, " p", ""))
+    """The report's mark of each row's sum `name` (``x`` fails completeness, ``f``
+    flagged but passing, ``p`` partial or a part without data, ``~`` filled): the
+    totals' rule, :func:`workbench.report_tables.status_marks`."""
+    return pd.Series(status_marks(frame[f"{name}_status"], frame[f"{name}_passes"],
+                                  frame[f"{name}_missing_components"]), index=frame.index)
 
 
 def _value(v, name) -> str:

@@ -43,19 +43,55 @@ _MARK = {"complete": "", "flagged": " f", "partial": " p", "filled": " ~", "miss
 _FAILS_MARK = " x"
 
 
-def _lacks(row) -> bool:
-    """The row's sum lacks a component (a flagged total may: flagged wins over partial)."""
-    m = row.get("missing_components")
-    return isinstance(m, str) and m.strip() != ""
+def failing(status, passes) -> np.ndarray:
+    """Where a sum fails completeness: its ``passes`` is known and false (``False``,
+    ``"False"``, ``0``) and its status is not ``missing`` (no data is no failure).
+
+    Parameters
+    ----------
+    status, passes : array-like
+        Per row: the status word (docs/budget.md, "Status") and budget.csv's or
+        summary.csv's ``passes`` (bool, its text, or empty where unknown).
+
+    Returns
+    -------
+    ndarray of bool
+    """
+    status = np.asarray(status, dtype=object)
+    p = pd.Series(np.broadcast_to(np.asarray(passes, dtype=object), status.shape))
+    known = p.notna().to_numpy()
+    true = p.astype(str).str.lower().isin(("true", "1")).to_numpy()
+    return known & ~true & (status != "missing")
 
 
-def _fails(row) -> bool:
-    """The row's total fails completeness (budget.csv's ``passes`` false, not missing):
-    a flagged total that is no complete figure for its period, apart from one flagged
-    only to be read with care."""
-    p = row.get("passes")
-    return (p is not None and not pd.isna(p) and str(p).lower() not in ("true", "1")
-            and row.get("status") != "missing")
+def status_marks(status, passes, missing_components) -> np.ndarray:
+    """report.html's mark of each sum, after its number: `` x`` fails completeness,
+    else `` f`` flagged (passing), `` p`` partial, `` ~`` filled, nothing for complete
+    or missing (``?`` for a status not known); then `` p`` where a part has no data
+    and the mark does not say so yet.  One rule for the totals per period
+    (:func:`_pivot_html`) and the derived sums (:func:`workbench.report_derived.mark`).
+
+    A total that fails and lacks a component reads ``x p`` whatever its status word
+    (``partial`` too): the missing part is named beside every status (docs/budget.md,
+    "Status"); before, the totals' table wrote a failing partial total ``x``.
+
+    Parameters
+    ----------
+    status, passes, missing_components : array-like
+        Per row: the status word, ``passes`` (:func:`failing`) and the names of the
+        parts without data (blank or empty where none).
+
+    Returns
+    -------
+    ndarray of str
+    """
+    st = pd.Series(np.asarray(status, dtype=object)).fillna("missing").astype(str)
+    miss = pd.Series(np.broadcast_to(np.asarray(missing_components, dtype=object),
+                                     st.shape)).fillna("").astype(str)
+    base = np.where(failing(st.to_numpy(object), passes), _FAILS_MARK,
+                    st.map(lambda s: _MARK.get(s, " ?")).to_numpy(object))
+    lacks = ((miss.str.strip() != "") | (st == "partial")).to_numpy() & (st != "missing").to_numpy()
+    return np.where(lacks & (base != " p"), base + " p", base).astype(object)
 
 
 def _pivot_html(per: pd.DataFrame) -> str:
@@ -64,10 +100,11 @@ def _pivot_html(per: pd.DataFrame) -> str:
     passing total flagged to be read with care)."""
     if per.empty:
         return "<p>No periods.</p>"
-    cell = per.apply(lambda r: "–" if not np.isfinite(r["flux_kg_ha_yr"]) else
-                     f"{plain(r['flux_kg_ha_yr'])}"
-                     + (_FAILS_MARK if _fails(r) else _MARK.get(r['status'], '?'))
-                     + (" p" if r["status"] != "partial" and _lacks(r) else ""), axis=1)
+    marks = status_marks(per["status"], per["passes"] if "passes" in per else None,
+                         per["missing_components"] if "missing_components" in per else "")
+    values = per["flux_kg_ha_yr"].to_numpy(float)
+    cell = pd.Series([f"{plain(v)}{m}" if np.isfinite(v) else "–"
+                      for v, m in zip(values, marks)], index=per.index)
     wide = per.assign(cell=cell).pivot_table(index=["site", "receptor", "element"],
                                              columns="period", values="cell", aggfunc="first")
     wide.columns.name = None

@@ -395,6 +395,29 @@ def derived_quantities(o, budget):
     return derived(budget)
 
 
+@stage("year_rates")
+def year_rates(o, years, receptors=None):
+    """Oxidized and reduced N, the reduced share and the potential acidity of the
+    years as yearly rates with their completeness (report_derived.derived_rates on
+    budget.csv's rows of the years; `receptors`: those only), for the site explorer's
+    N split and the network overview's columns."""
+    from .report_derived import derived_rates
+    from .tables import budget_table
+    if receptors is not None:
+        years = years.sel(receptor=list(receptors))
+    return derived_rates(years, budget_table(years))
+
+
+@stage("network_rates")
+def network_rates(o, picks, **years):
+    """The derived sums (as ``year_rates``) of each site's own surface over several runs
+    at once: each run's years cut to its sites' picked receptors, put side by side on
+    the site axis and computed in one call (`years`: ``run_0``, ``run_1``... each a
+    run's years; `picks`: per run, its ``(site, receptor)`` pairs)."""
+    from .report_derived import rates_side_by_side
+    return rates_side_by_side([years[f"run_{i}"] for i in range(len(picks))], picks)
+
+
 #: Budget options read by the pieces of the dry rows (``air_basis``, ``flux_inputs``
 #: and the fills); the ``dry_rows`` stage hands them on, so it declares them all.
 ROW_OPTIONS = ("sulfate_basis", "pair_split", "air_censored", "min_slot_hours",

@@ -21,12 +21,16 @@ def summary_table(result) -> pd.DataFrame:
     not, the first criterion failed (``<e>_total_completeness_failure``), and the wet
     chain's precipitation depth [mm], pH of the
     precipitation-weighted mean H+, free acidity deposited [eq ha-1] and the
-    precipitation-weighted mean of each ion [umol L-1].
+    precipitation-weighted mean of each ion [umol L-1]; last, the derived sums' status,
+    missing components and completeness (``oxidized_N_status`` ... ``<sum>_passes``,
+    ``<sum>_completeness_failure``: :func:`workbench.budget.with_derived_status` of
+    the chosen gas scheme's budget.csv rows).
 
     Parameters
     ----------
     result : workbench.pipeline.Result
-        ``budget`` and ``derived`` Datasets of the run's resolution.
+        ``budget`` and ``derived`` Datasets of the run's resolution, ``table``
+        (budget.csv's rows).
 
     Returns
     -------
@@ -91,7 +95,12 @@ def summary_table(result) -> pd.DataFrame:
         pwm = ds["pwm"].transpose("site", "period", "wet_ion").values[si, pi]
         for k, ion in enumerate(ds["wet_ion"].values.astype(str)):
             frame[f"pwm_{ion}_umol_L"] = pwm[:, k] * UMOL_L_PER_MOL_M3
-    return _values_beside_quantiles(frame, ds, si, ri, pi)
+    frame = _values_beside_quantiles(frame, ds, si, ri, pi)
+    # the derived sums' own status and completeness, from budget.csv's rows of the
+    # chosen gas scheme (workbench.budget_derived.with_derived_status)
+    from .budget_derived import with_derived_status
+    from .comparison import chosen_scheme
+    return with_derived_status(frame, chosen_scheme(result)[0].table)
 
 
 def _values_beside_quantiles(frame, ds, si, ri, pi):

@@ -22,7 +22,7 @@ from .io.readbytes import file_sha256, gzip_content_sha256
 from .runfolder import (OutputError, RunFolder, atomic_write, check_out_dir,  # noqa: F401
                         os_error_message)
 from .runpaths import relative_from, scenario_base, shown_path, shown_text
-from .budget import derived_status
+from .budget import derived_status_variables
 from .tables import BUDGET_COLUMNS, summary_table
 
 __all__ = ["OUTPUT_STEPS", "OutputError", "RunFolder", "atomic_write", "write_run"]
@@ -154,19 +154,7 @@ def budget_dataset(result) -> xr.Dataset:
     ds["deposition"].attrs.update({"long_name": "deposition as amount of S or N (element basis)"})
     ds = xr.merge([ds, result.derived], compat="override")
     from .comparison import chosen_scheme
-    st = derived_status(chosen_scheme(result)[0].table).set_index(["site", "receptor", "period"])
-    for col in st.columns:
-        v = st[col].to_xarray().reindex(site=ds["site"], receptor=ds["receptor"],
-                                        period=ds["period"])
-        passes = col.endswith("_passes")       # a pair no site asks for: false
-        ds[col] = v.fillna(False).astype(bool) if passes else v.fillna("").astype(object)
-        ds[col].attrs["long_name"] = (
-            f"{col.split('_status')[0]}: status (docs/budget.md)" if col.endswith("_status")
-            else f"{col.split('_passes')[0]}: every part passes completeness" if passes
-            else f"{col.split('_completeness')[0]}: the first completeness criterion a part "
-                 "fails, with its share and minimum, after the parts failing for it"
-            if col.endswith("_completeness_failure")
-            else f"{col.split('_missing')[0]}: components without data")
+    ds = ds.assign(derived_status_variables(chosen_scheme(result)[0].table, ds))
     ds["period_start"].attrs["long_name"] = "start of the period (UTC)"
     ds["period_end"].attrs["long_name"] = "end of the period, exclusive (UTC)"
     return ds
@@ -337,12 +325,7 @@ def write_budget_csv(result, study, scenario, path):
 
 
 def write_summary_csv(result, study, scenario, path):
-    from .comparison import chosen_scheme
-    frame = summary_table(result)
-    extra = derived_status(chosen_scheme(result)[0].table)
-    frame = frame.merge(extra.astype({"period": frame["period"].dtype}),
-                        on=["site", "receptor", "period"], how="left")
-    _csv(frame, path)
+    _csv(summary_table(result), path)
     return path
 
 

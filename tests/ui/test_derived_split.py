@@ -85,3 +85,63 @@ def test_network_totals_carry_reduced_share_and_acidity(two_sites_2021):
         assert plain.xs("ridge", level="site")[col].tolist() == ["passes"]
         assert plain.xs("mere", level="site")[col].tolist() == ["passes (without NO2)"]
     assert np.isfinite(plain["potential acidity [eq/ha/yr]"].astype(float)).all()
+
+
+def _network_loop(results, catalogue=None):
+    """The earlier network_derived, kept word for word in benchmarks/derived_split.py
+    (``site_loop``, which times it): each run's sums, then its rows picked site by
+    site in a Python loop."""
+    import importlib.util
+    from pathlib import Path
+    path = Path(__file__).resolve().parents[2] / "benchmarks" / "derived_split.py"
+    spec = importlib.util.spec_from_file_location("bench_derived_split", path)
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module.site_loop(results, catalogue)
+
+
+def test_network_derived_in_one_call_equals_the_site_loop(two_sites_2021):
+    """network_derived computes every run's sites side by side in one call (through
+    the stage graph the runs share) and picks each site's own surface in one merge; the
+    same frame as the loop over sites, with and without the catalogue (without: each
+    site's first active receptor), and run by run where two runs share a site."""
+    from workbench.ui.apps import NetworkOverview
+    from workbench.ui.derived_split import network_derived
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        net = NetworkOverview.from_scenario(two_sites_2021)
+        results = list(net.results.values())
+        assert len(results) == 2
+        cat = net.session.study.inputs.catalogue
+        for runs in (results, results + results[:1]):       # the latter: one by one
+            for c in (cat, None):
+                want = _network_loop(runs, c)
+                got = network_derived(runs, c)
+                assert len(got) == len(want) > 0
+                pd.testing.assert_frame_equal(got, want)
+        # a second call reads the sums from the graph: nothing computed again
+        graph = results[0].graph
+        before = graph.counts["network_rates"]
+        assert before >= 1
+        pd.testing.assert_frame_equal(network_derived(results, cat), _network_loop(results, cat))
+        assert graph.counts["network_rates"] == before
+
+
+def test_split_table_from_the_graph_equals_the_one_from_scratch(session):
+    """The site explorer's split table takes the derived sums from the stage graph
+    (``Result.rates``): the same HTML as computed from scratch, and a redraw of the
+    same result (a unit change) computes them no more."""
+    from workbench.ui.apps import SiteExplorer
+    from workbench.ui.derived_split import n_split_html
+    app = SiteExplorer(session, site="ridge", years=(2020, 2021))
+    rec = app.receptor_w.value
+    for unit in ("kg/ha/yr", "eq/ha/yr"):
+        assert n_split_html(app.result.years, "ridge", rec, unit) == n_split_html(
+            app.result.years, "ridge", rec, unit, rates=app.result.rates(receptors=[rec]))
+    g = app.result.graph
+    before = g.counts["year_rates"]
+    assert before >= 1                     # the explorer's first drawing computed them
+    app.unit_w.value = "eq/ha/yr"
+    app.unit_w.value = "kg/ha/yr"
+    assert g.counts["year_rates"] == before
+    assert app.split_w.value == n_split_html(app.result.years, "ridge", rec, "kg/ha/yr")

@@ -398,7 +398,8 @@ class SiteExplorer(SavedText, widgets.VBox):
     def _split_html(self):
         from .derived_split import n_split_html
         return n_split_html(self.result.years, self.site, self.receptor_w.value,
-                            self.unit_w.value)
+                            self.unit_w.value,
+                            rates=self.result.rates(receptors=[self.receptor_w.value]))
 
     def _monthly_html(self):
         """The run notes on monthly completeness (one weekly sample fails a month, and

@@ -38,8 +38,11 @@ def completeness_words(frame: pd.DataFrame, name: str) -> np.ndarray:
 
 
 def n_split_table(years: xr.Dataset, site, receptor, unit="kg/ha/yr",
-                  table: pd.DataFrame | None = None) -> pd.DataFrame:
-    """The split of N of one site and receptor per year of `years`.
+                  table: pd.DataFrame | None = None,
+                  rates: pd.DataFrame | None = None) -> pd.DataFrame:
+    """The split of N of one site and receptor per year of `years` (`rates`: the
+    derived sums of `years` already computed, ``Result.rates()`` from the stage graph;
+    else computed here, from `table` when given).
 
     Returns
     -------
@@ -49,9 +52,12 @@ def n_split_table(years: xr.Dataset, site, receptor, unit="kg/ha/yr",
         ``<sum>_passes`` and ``<sum>_completeness_failure``
         (:func:`workbench.report_derived.derived_rates`).
     """
-    if table is None:           # only this site and receptor: a redraw pays for one pair
-        years = years.sel(site=[site], receptor=[receptor])
-    f = _rates(years, table)
+    if rates is not None:
+        f = rates
+    else:
+        if table is None:       # only this site and receptor: a redraw pays for one pair
+            years = years.sel(site=[site], receptor=[receptor])
+        f = _rates(years, table)
     f = f[(f["site"] == str(site)) & (f["receptor"] == str(receptor))].reset_index(drop=True)
     for k in ("oxidized_N", "reduced_N"):      # kg N/ha/yr -> the unit on screen
         f[k] = to_unit(_kg_ha_to_mol_m2(f[k].to_numpy(float)), "N", unit)
@@ -59,13 +65,14 @@ def n_split_table(years: xr.Dataset, site, receptor, unit="kg/ha/yr",
 
 
 def n_split_html(years: xr.Dataset, site, receptor, unit="kg/ha/yr",
-                 table: pd.DataFrame | None = None) -> str:
+                 table: pd.DataFrame | None = None,
+                 rates: pd.DataFrame | None = None) -> str:
     """A small table (one row a year) of the oxidized and reduced N, the reduced share
     and the potential acidity, for the site explorer's 520 px column: a sum failing
     completeness marked ``x`` with its reason on the cell's tooltip and in a line
     under the table; ``f`` flagged but passing; ``p`` a part without data."""
     from ..report_derived import DEFINITIONS, SHOWN, fails, mark
-    f = n_split_table(years, site, receptor, unit, table)
+    f = n_split_table(years, site, receptor, unit, table, rates)
     if f.empty:
         return ""
     n_unit = unit.replace("kg/", "kg N/").replace("mmol/", "mmol N/")   # eq: of charge
@@ -100,22 +107,54 @@ def n_split_html(years: xr.Dataset, site, receptor, unit="kg/ha/yr",
             + "</tr></thead><tbody>" + "".join(rows) + "</tbody></table>" + notes + "</div>")
 
 
+def own_surfaces(years: xr.Dataset, catalogue=None) -> pd.DataFrame:
+    """The receptor of each site of `years` that the network overview shows: its own
+    land use in `catalogue`, else its first active receptor (a site with none, or
+    whose own surface `years` does not hold, is left out: it has no rows).
+
+    Returns
+    -------
+    DataFrame
+        ``site``, ``receptor`` (text), one row per site in the order of `years`.
+    """
+    sites = years["site"].values.astype(str)
+    recs = years["receptor"].values.astype(str)
+    act = np.asarray(years["active"].transpose("site", "receptor").values, bool)
+    first = pd.Series(np.where(act.any(axis=1), recs[act.argmax(axis=1)], None),
+                      index=sites, dtype=object)
+    if catalogue is not None:
+        own = pd.Series({s.id: s.land_use for s in catalogue}, dtype=object)
+        first = own.reindex(sites).fillna(first)
+    out = pd.DataFrame({"site": sites, "receptor": first.to_numpy(object)})
+    return out[out["receptor"].isin(recs)].reset_index(drop=True)     # a receptor run
+
+
 def network_derived(results, catalogue=None) -> pd.DataFrame:
     """The reduced share of N and the potential acidity of every site on its own surface
     (the network overview's receptor, :func:`workbench.ui.summaries.network_table`)
     per year: site, receptor, period, ``reduced_share`` [%], ``potential_acidity``
-    [eq ha-1 yr-1] and their ``_status``, ``_passes``, ``_completeness_failure``."""
-    rows = []
-    for r in results:
-        f = _rates(r.years, None)
-        for site in r.years["site"].values.astype(str):
-            if catalogue is not None and site in catalogue.ids:
-                rec = catalogue[site].land_use
-            else:
-                act = r.years["active"].sel(site=site).values
-                rec = str(r.years["receptor"].values[np.flatnonzero(act)[0]])
-            rows.append(f[(f["site"] == site) & (f["receptor"] == str(rec))])
-    if not rows:
-        return pd.DataFrame()
-    return pd.concat(rows, ignore_index=True)
+    [eq ha-1 yr-1] and their ``_status``, ``_passes``, ``_completeness_failure``.
 
+    The runs' years are computed together
+    (:func:`workbench.report_derived.rates_side_by_side`: one call for every site, in
+    place of one per run and a pick per site), through the stage graph the runs share
+    (stage ``network_rates``: a second call computes nothing).
+    """
+    results = list(results)
+    picks = [own_surfaces(r.years, catalogue) for r in results]
+    keep = [i for i, p in enumerate(picks) if len(p)]
+    if not keep:
+        return pd.DataFrame()
+    runs = [results[i] for i in keep]
+    pairs = tuple(tuple(zip(picks[i]["site"], picks[i]["receptor"])) for i in keep)
+    graph = runs[0].graph              # the runs of one session share their graph
+    if (graph is None or any(r.graph is not graph for r in runs)
+            or any(r.keys.get("years") is None for r in runs)):
+        from ..report_derived import rates_side_by_side
+        f = rates_side_by_side([r.years for r in runs], pairs)
+    else:
+        from ..graph import Node
+        f = graph.run("network_rates", params={"picks": pairs},
+                      deps={f"run_{i}": Node(r.keys["years"], r.years)
+                            for i, r in enumerate(runs)}).value
+    return f.drop(columns="_run")
