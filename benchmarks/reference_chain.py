@@ -123,10 +123,10 @@ def build(jit=None):
         sc_term = ((nu / diff) / C.PRANDTL_AIR) ** (2.0 / 3.0)
         valid_cat = cat == cat and abs(cat) != INF
         cold = W.COLD_SCALE * math.exp(-t_c - W.COLD_OFFSET)
-        ts_in = min(max(t_c, 1.0), W.RS_T_MAX - 1.0)
+        rs_open = t_c > 0.0 and t_c < W.RS_T_MAX
+        ts_in = t_c if rs_open else W.RS_T_MAX / 2.0   # Wesely (1989) Eq. 3 over 0-40 degC
         light = 1.0 + (W.RS_LIGHT / (k_down + W.RS_LIGHT_OFFSET)) ** 2
         t_fac = W.RS_T_FACTOR / (ts_in * (W.RS_T_MAX - ts_in))
-        rs_open = t_c > 0.0 and t_c < W.RS_T_MAX
         rdc_light = W.RDC_SCALE * (1.0 + W.RDC_LIGHT / (k_down + W.RDC_LIGHT_OFFSET))
         # particles: the terms of the air and of each node (no receptor in them)
         rh_c = min(max(rh, TINY), Z.GROWTH_RH_MAX)
