@@ -48,9 +48,10 @@ def run_folder_hint(path) -> str | None:
 def add_parsers(sub) -> None:
     """The ``verify`` and ``compare`` commands on subparsers `sub`."""
     from .runcompare import SHOWN_ROWS
-    v = sub.add_parser("verify", help="check that a run folder still matches its scenario "
-                       "and input files (checksums in provenance.json)")
-    v.add_argument("run", type=Path, help="a run folder written by `workbench run`")
+    v = sub.add_parser("verify", help="check that a run, sensitivity or grid folder still "
+                       "matches its scenario and input files (checksums in provenance.json)")
+    v.add_argument("run", type=Path, help="a folder written by `workbench run`, `workbench "
+                   "sensitivity` or `workbench grid` (the lines name which)")
     v.add_argument("--scenario", type=Path, default=None, help="the scenario file to check "
                    "against (default: the run's own, found relative to the run folder, "
                    "then where it was)")

@@ -13,6 +13,41 @@ import textwrap
 NOTE_WIDTH = 79
 
 
+def console_lines(lines, width=None) -> list[str]:
+    """Lines for the console, each wrapped to `width` characters (default
+    :data:`NOTE_WIDTH`) under a hanging indent: its continuation lines start two spaces
+    deeper than the line itself (``"  farm 2016-01: ..."`` goes on at four spaces).
+    Only the breaks change: a line is cut at its spaces, never inside a word or a path
+    (a longer word stands alone on an over-long line), and the words are kept as they
+    are.  Used by ``workbench run`` and ``workbench demo`` for the status counts
+    (:func:`status_lines`), the span notes (:func:`run_span_notes`), the sites not
+    complete (:func:`site_status_lines`) and the totals failing completeness
+    (:func:`failing_lines`), which return one line each (a test or a check of what
+    was said reads them whole).
+
+    Examples
+    --------
+    >>> for x in console_lines(["  farm 2017-07: S N: sample coverage below minimum "
+    ...                         "(77.4 % of the period; minimum 90 %)"], width=40):
+    ...     print(x)
+      farm 2017-07: S N: sample coverage
+        below minimum (77.4 % of the period;
+        minimum 90 %)
+    >>> console_lines(["", "short"])
+    ['', 'short']
+    """
+    width = NOTE_WIDTH if width is None else width
+    out = []
+    for line in lines:
+        line = str(line).rstrip()
+        body = line.lstrip(" ")
+        indent = line[:len(line) - len(body)]
+        out.extend(textwrap.wrap(body, width=width, initial_indent=indent,
+                                 subsequent_indent=indent + "  ", break_long_words=False,
+                                 break_on_hyphens=False) or [line])
+    return out
+
+
 def status_lines(table, inputs) -> list[str]:
     """What a run's budgets hold, for the console: per element the status counts of the
     total budget of each site, receptor and period (the flagged ones that fail
