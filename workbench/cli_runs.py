@@ -39,7 +39,9 @@ def run_folder_hint(path) -> str | None:
     """For ``workbench check`` given a run folder: what to type instead."""
     p = Path(path)
     if p.is_dir() and (p / "provenance.json").is_file():
-        return (f"{p.resolve()} is a run folder, not a scenario: `workbench verify {path}` "
+        from .runcheck import FOLDER_NAMES, folder_kind
+        folder = FOLDER_NAMES[folder_kind(p, {})][0]      # by the files it holds
+        return (f"{p.resolve()} is a {folder}, not a scenario: `workbench verify {path}` "
                 "checks it against its scenario and inputs; `workbench check` takes the "
                 "scenario's .toml file")
     return None

@@ -272,6 +272,8 @@ def test_a_sensitivity_folder_records_what_made_it_and_verifies(tiny, tmp_path, 
                                     "`workbench sensitivity`)")
     assert "result: the sensitivity folder matches its scenario and inputs" in said
     assert "sites analysed: " in said and "run folder" not in said
+    assert main(["check", str(out)]) == 2             # the folder given for its scenario
+    assert "is a sensitivity folder, not a scenario" in capsys.readouterr().err
     air = sc.input_path("air")
     assert air.is_relative_to(tmp_path / "proj")     # the copy's, not the shared file
     air.write_text(air.read_text() + "\n")
