@@ -230,10 +230,11 @@ def cmd_demo(args) -> int:
         st = pd.Series(result.screened["status"].values.astype(str)).value_counts()
         words = {"used": "used", "flagged": "used with a QA flag", "excluded": "excluded",
                  "dry": "dry"}
-        print("precipitation screening, per sample: "
-              + ", ".join(f"{int(st.get(k, 0))} {w}" for k, w in words.items())
-              + " (status and reasons in samples.csv; the rows per file above count the "
-              "rows read with a note)")
+        print("\n".join(console_lines([
+            "precipitation screening, per sample: "
+            + ", ".join(f"{int(st.get(k, 0))} {w}" for k, w in words.items())
+            + " (status and reasons in samples.csv; the rows per file above count the "
+            "rows read with a note)"])))
         print()
     t = result.table
     span = t[(t["period"] == "span") & (t["species"] == "all") & (t["pathway"] == "total")]
@@ -247,7 +248,7 @@ def cmd_demo(args) -> int:
             index=False, formatters={"flux_kg_ha_yr": "{:.3g}".format,
                                      "flux_eq_ha_yr": "{:,.0f}".format}))
         from .tables import SPAN_STATUS_WORDS
-        print("status: " + SPAN_STATUS_WORDS)
+        print("\n".join(console_lines(["status: " + SPAN_STATUS_WORDS])))
     for line in console_lines(failing_lines(t)):     # totals that are not a full period's
         print(line)
     for line in _note_lines(result, DEMO_SCENARIO):  # report.html's "Notes"

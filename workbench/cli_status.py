@@ -19,8 +19,9 @@ def console_lines(lines, width=None) -> list[str]:
     :data:`NOTE_WIDTH`) under a hanging indent: its continuation lines start two spaces
     deeper than the line itself (``"  farm 2016-01: ..."`` goes on at four spaces).
     Only the breaks change: a line is cut at its spaces, never inside a word or a path
-    (a longer word stands alone on an over-long line) nor between a number and its
-    ``%``, and the words are kept as they are.  Used by ``workbench run`` and
+    (a longer word stands alone on an over-long line) nor between a number and the
+    unit or word after it (``77.4 %``, ``3 filled``), and the words are kept as they
+    are.  Used by ``workbench run`` and
     ``workbench demo`` for the status counts (:func:`status_lines`), the span notes
     (:func:`run_span_notes`), the sites not complete (:func:`site_status_lines`) and
     the totals failing completeness (:func:`failing_lines`), which return one line
@@ -36,6 +37,8 @@ def console_lines(lines, width=None) -> list[str]:
         period; minimum 90 %)
     >>> console_lines(["a minimum of 90 %"], width=15)
     ['a minimum of', '  90 %']
+    >>> console_lines(["S: 68 complete, 3 filled"], width=19)
+    ['S: 68 complete,', '  3 filled']
     >>> console_lines(["", "short"])
     ['', 'short']
     """
@@ -45,11 +48,11 @@ def console_lines(lines, width=None) -> list[str]:
         line = str(line).rstrip()
         body = line.lstrip(" ")
         indent = line[:len(line) - len(body)]
-        # a number and its " %" stay on one line: the space is held by a character
-        # textwrap does not break at (NUL), put back after
+        # a number and its unit or word stay on one line: the space between them is
+        # held by a character textwrap does not break at (NUL), put back after
         held = "\0" not in body
         if held:
-            body = _NUMBER_PERCENT.sub("\\1\0%", body)
+            body = _NUMBER_WORD.sub("\\1\0", body)
         wrapped = textwrap.wrap(body, width=width, initial_indent=indent,
                                 subsequent_indent=indent + "  ", break_long_words=False,
                                 break_on_hyphens=False) or [line]
@@ -57,8 +60,10 @@ def console_lines(lines, width=None) -> list[str]:
     return out
 
 
-#: A number followed by " %" (``77.4 %``), kept together by :func:`console_lines`.
-_NUMBER_PERCENT = re.compile(r"(\d) %")
+#: A number and the unit or word after it (``77.4 %``, ``168 h``, ``3 filled``), kept on
+#: one line by :func:`console_lines`; a number before another number (a list of years)
+#: or a bracket is not held.
+_NUMBER_WORD = re.compile(r"(?<![\w.-])(\d[\d,.]*) (?=[A-Za-z%])")
 
 
 def status_lines(table, inputs) -> list[str]:
