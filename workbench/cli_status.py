@@ -21,11 +21,11 @@ def console_lines(lines, width=None) -> list[str]:
     Only the breaks change: a line is cut at its spaces, never inside a word or a path
     (a longer word stands alone on an over-long line) nor between a number and the
     unit or word after it (``77.4 %``, ``3 filled``), and the words are kept as they
-    are.  Used by ``workbench run`` and
-    ``workbench demo`` for the status counts (:func:`status_lines`), the span notes
-    (:func:`run_span_notes`), the sites not complete (:func:`site_status_lines`) and
-    the totals failing completeness (:func:`failing_lines`), which return one line
-    each (a test or a check of what was said reads them whole).
+    are.  Used by ``workbench run`` and ``workbench demo`` for the status counts
+    (:func:`status_lines`), the span notes (:func:`run_span_notes`), the sites not
+    complete (:func:`site_status_lines`) and the totals failing completeness
+    (:func:`failing_lines`), which return one line each (a test or a check of what
+    was said reads them whole).
 
     Examples
     --------
