@@ -112,3 +112,57 @@ def test_the_demo_prints_its_notes_before_the_report_line(tmp_path, capsys):
     prov = json.loads((tmp_path / "run" / "provenance.json").read_text())
     assert notes == [_words(n) for n in prov["run_notes"]] and notes
     assert printed.index("notes of the run") < printed.index("report: ")
+
+
+def test_the_closing_counts_are_wrapped_with_their_words_kept(tmp_path, capsys):
+    """The status counts (and the lines on totals failing completeness, on the span and
+    on the sites not complete) were printed as one line each, up to 180 characters on
+    the demo, which a terminal wraps mid-word; they are wrapped to 79 characters as the
+    run's notes, with the same words.  Here the counts of a monthly run are 80
+    characters long (one more than fits)."""
+    import pandas as pd
+
+    from workbench.cli import failing_lines, status_lines
+    scenario = tb._write(tmp_path)                 # weekly samples, monthly periods
+    out = tmp_path / "out"
+    assert main(["run", str(scenario), "--out", str(out), "--quiet"]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    t = pd.read_csv(out / "budget.csv", dtype={"period": str}, keep_default_na=False)
+    said = status_lines(t, None) + failing_lines(t)
+    assert max(len(x) for x in said) > 79            # one line each, as the files read
+    start = next(i for i, x in enumerate(lines) if x.startswith("budgets per site"))
+    end = next(i for i, x in enumerate(lines) if x.startswith("notes of the run"))
+    block = lines[start:end]
+    assert max(len(x) for x in block) <= 79
+    assert _words("\n".join(block)) == _words("\n".join(said))
+    assert all(x.startswith("  ") for x in block[1:])          # a hanging indent
+
+
+def test_console_lines_break_at_spaces_only_under_a_hanging_indent():
+    """Each line of failing_lines and site_status_lines (a network of 12 sites, one
+    failing total with a long reason) wrapped to 79 characters: its words in order,
+    none split, each continuation two spaces deeper than its line; a path longer than
+    a line stands whole on a line of its own."""
+    import pandas as pd
+
+    from workbench.cli_status import console_lines, failing_lines, site_status_lines
+    sites = [f"station-{i:02d}" for i in range(12)]
+    why = ("SO4: sample coverage below minimum (77.4 % of the period; minimum 90 %), not "
+           "covered: 168 h (22.6 %) of sample 2017-07-13 line 497 (excluded: "
+           "contamination screen: biological (K, NH4, PO4 high))")
+    t = pd.DataFrame({"site": sites, "period": "2023", "species": "all", "pathway": "total",
+                      "element": "S", "status": "partial", "passes": True,
+                      "missing_components": "pSO4", "completeness_failure": ""})
+    t.loc[0, ["status", "passes", "completeness_failure"]] = ["flagged", False, why]
+    path = "/data/" + "a-very-long-folder-name-" * 4 + "/air.csv"
+    for lines in (failing_lines(t), site_status_lines(t, min_sites=1), ["note: " + path]):
+        assert max(len(x) for x in lines) > 79
+        for line in lines:
+            wrapped = console_lines([line])
+            indent = len(line) - len(line.lstrip(" "))
+            assert wrapped[0].startswith(line[:indent + 1])
+            assert all(w.startswith(" " * (indent + 2)) and w[indent + 2] != " "
+                       for w in wrapped[1:])
+            assert [w for x in wrapped for w in x.split()] == line.split()
+            assert all(len(x) <= 79 or x.split() == [path] for x in wrapped)
+    assert console_lines(["note: " + path]) == ["note:", "  " + path]

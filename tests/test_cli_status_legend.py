@@ -8,6 +8,7 @@ def test_demo_says_what_the_statuses_mean(tmp_path, capsys):
     assert main(["demo", "--out", str(tmp_path / "run"), "--quiet"]) == 0
     out = capsys.readouterr().out
     table, legend = out.split("whole-span totals")[1].split("\nstatus: ")
+    legend = " ".join(legend.split())          # wrapped for an 80-column terminal
     shown = {w for w in ("complete", "filled", "partial", "flagged") if f" {w} " in table}
     assert shown >= {"partial", "flagged"}          # the demo plants both
     for w in shown:
@@ -31,7 +32,10 @@ def test_demo_totals_in_plain_numbers_and_the_two_counts_of_flags_told_apart(tmp
     eq = [r[4] for r in rows]
     assert all(v.replace(",", "").isdigit() for v in eq), eq
     assert any("," in v for v in eq)                 # the farm's N is above 1,000
-    screening = next(line for line in out.splitlines() if line.startswith("precipitation screening"))
+    # the screening line, wrapped for an 80-column terminal (under a hanging indent)
+    screening = out.split("\nprecipitation screening")[1].split("\n\n")[0]
+    assert max(len(x) for x in screening.splitlines()) <= 79
+    screening = " ".join(screening.split())
     assert "used with a QA flag" in screening and "samples.csv" in screening
 
 
@@ -48,7 +52,10 @@ def test_a_flagged_span_row_and_the_console_agree_on_the_years(tmp_path, capsys)
     from workbench.cli import main
     assert main(["demo", "--out", str(tmp_path / "run"), "--quiet"]) == 0
     out = capsys.readouterr().out
-    legend = out.split("whole-span totals")[1].split("\nstatus: ")[1].split("\n")[0]
+    legend = out.split("whole-span totals")[1].split("\nstatus: ")[1]
+    legend = legend.split("\nnotes of the run")[0].split("\nreport: ")[0]
+    assert max(len(x) for x in ("status: " + legend).splitlines()) <= 79   # wrapped
+    legend = " ".join(legend.split())
     assert "fails completeness, or" not in legend
     assert "every year in years_used passes completeness" in legend
     t = pd.read_csv(tmp_path / "run" / "budget.csv", dtype={"period": str})

@@ -124,9 +124,16 @@ def test_run_prints_the_failing_site_year(runs):
     lines = out.splitlines()
     head = [i for i, x in enumerate(lines) if "fails completeness" in x]
     assert len(head) == 1 and lines[head[0]].startswith("1 site-year fails completeness")
-    assert lines[head[0] + 1] == ("  mere 2023: S N: gauge record below minimum (51.1 % of "
-                                  "the period; minimum 90 %)")
-    counts = next(x for x in lines if x.startswith("budgets per site"))
+    # each line wrapped for an 80-column terminal: the block read back as one text
+    block = lines[head[0]:]
+    block = block[:next((i for i, x in enumerate(block) if i and not x.startswith("  ")),
+                        len(block))]
+    text = " ".join(" ".join(block).split())
+    assert text.endswith(": mere 2023: S N: gauge record below minimum (51.1 % of the "
+                         "period; minimum 90 %)")
+    assert any(x.startswith("  mere 2023: S N:") for x in block)
+    start = next(i for i, x in enumerate(lines) if x.startswith("budgets per site"))
+    counts = " ".join(" ".join(lines[start:head[0]]).split())
     assert "(2 failing completeness)" in counts          # of the flagged: mere's 2 surfaces
 
 

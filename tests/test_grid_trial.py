@@ -330,7 +330,9 @@ def test_verify_of_a_grid_run_folder_moved_whole(tmp_path, capsys, monkeypatch):
     assert "outputs: the 1 file besides provenance.json (grid.nc) is as written" in text
     for role, name in (("met", "met.nc"), ("air", "air.nc"), ("land_use", "land_use.nc")):
         assert f"input {role} ({name}): as at the run" in text
-    assert "result: the run folder matches its scenario and inputs" in text
+    assert "result: the grid folder matches its scenario and inputs" in text
+    assert text.startswith(f"grid folder {(moved / 'runs' / 'grid').resolve()} (written by "
+                           "`workbench grid`)")
     # one input edited after the run: verify names that file, and only it
     _rewrite(moved / "grid" / "land_use.nc",
              lambda d: d.assign_attrs(comment="edited after the run"))

@@ -10,7 +10,7 @@ limit) and interrupts.  A run folder is written whole or not at all
 Where the parts are: ``workbench check`` (:func:`cmd_check`, :func:`absent_site_lines`)
 in :mod:`workbench.cli_check`; what a run prints after it (:func:`status_lines`,
 :func:`run_span_notes`, :func:`site_status_lines`, :func:`failing_lines`,
-:func:`run_note_lines`, :func:`uncertainty_lines`) in
+:func:`run_note_lines`, :func:`uncertainty_lines`, :func:`console_lines`) in
 :mod:`workbench.cli_status`; the
 terminal (:class:`_LineEnd`, Ctrl-C) in :mod:`workbench.cli_terminal`; ``verify`` and
 ``compare`` in :mod:`workbench.cli_runs`.  This module re-exports them, so that
@@ -29,8 +29,9 @@ from .errors import WorkbenchError
 from .cli_check import (_check_grid_only, _inputs_text, _progress,  # noqa: F401
                         absent_site_lines, cmd_check)
 # what a run prints after it (defined here before)
-from .cli_status import (failing_lines, run_note_lines, run_span_notes,  # noqa: F401
-                         site_status_lines, status_lines, uncertainty_lines)
+from .cli_status import (console_lines, failing_lines, run_note_lines,  # noqa: F401
+                         run_span_notes, site_status_lines, status_lines,
+                         uncertainty_lines)
 # the terminal: stderr's open line, Ctrl-C (defined here before)
 from .cli_terminal import (_LineEnd, _catch_ctrl_c, _end_line,  # noqa: F401
                            _in_gc_callback, _on_ctrl_c)
@@ -186,14 +187,16 @@ def cmd_run(args) -> int:
     from .writers import changed_note
     for path in changed_inputs(Path(args.out)):         # edited after the run read it
         print(f"warning: {changed_note(path, None)}", file=sys.stderr)
-    for line in status_lines(result.table, study.inputs):
+    # each wrapped for an 80-column terminal (console_lines); `said` stays whole, for
+    # the run notes to leave out what it holds
+    for line in console_lines(status_lines(result.table, study.inputs)):
         print(line)
     said = run_span_notes(args.scenario, result.table, args.resolution, study)
-    for line in said:
+    for line in console_lines(said):
         print(line)
-    for line in site_status_lines(result.table):
+    for line in console_lines(site_status_lines(result.table)):
         print(line)
-    for line in failing_lines(result.table):         # totals that are not a full period's
+    for line in console_lines(failing_lines(result.table)):  # totals not a full period's
         print(line)
     for line in uncertainty_lines(args.out, result):  # the draws, where they were made
         print(line)
@@ -227,10 +230,11 @@ def cmd_demo(args) -> int:
         st = pd.Series(result.screened["status"].values.astype(str)).value_counts()
         words = {"used": "used", "flagged": "used with a QA flag", "excluded": "excluded",
                  "dry": "dry"}
-        print("precipitation screening, per sample: "
-              + ", ".join(f"{int(st.get(k, 0))} {w}" for k, w in words.items())
-              + " (status and reasons in samples.csv; the rows per file above count the "
-              "rows read with a note)")
+        print("\n".join(console_lines([
+            "precipitation screening, per sample: "
+            + ", ".join(f"{int(st.get(k, 0))} {w}" for k, w in words.items())
+            + " (status and reasons in samples.csv; the rows per file above count the "
+            "rows read with a note)"])))
         print()
     t = result.table
     span = t[(t["period"] == "span") & (t["species"] == "all") & (t["pathway"] == "total")]
@@ -244,8 +248,8 @@ def cmd_demo(args) -> int:
             index=False, formatters={"flux_kg_ha_yr": "{:.3g}".format,
                                      "flux_eq_ha_yr": "{:,.0f}".format}))
         from .tables import SPAN_STATUS_WORDS
-        print("status: " + SPAN_STATUS_WORDS)
-    for line in failing_lines(t):                    # totals that are not a full period's
+        print("\n".join(console_lines(["status: " + SPAN_STATUS_WORDS])))
+    for line in console_lines(failing_lines(t)):     # totals that are not a full period's
         print(line)
     for line in _note_lines(result, DEMO_SCENARIO):  # report.html's "Notes"
         print(line)

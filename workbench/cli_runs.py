@@ -39,7 +39,9 @@ def run_folder_hint(path) -> str | None:
     """For ``workbench check`` given a run folder: what to type instead."""
     p = Path(path)
     if p.is_dir() and (p / "provenance.json").is_file():
-        return (f"{p.resolve()} is a run folder, not a scenario: `workbench verify {path}` "
+        from .runcheck import FOLDER_NAMES, folder_kind
+        folder = FOLDER_NAMES[folder_kind(p, {})][0]      # by the files it holds
+        return (f"{p.resolve()} is a {folder}, not a scenario: `workbench verify {path}` "
                 "checks it against its scenario and inputs; `workbench check` takes the "
                 "scenario's .toml file")
     return None
@@ -48,9 +50,10 @@ def run_folder_hint(path) -> str | None:
 def add_parsers(sub) -> None:
     """The ``verify`` and ``compare`` commands on subparsers `sub`."""
     from .runcompare import SHOWN_ROWS
-    v = sub.add_parser("verify", help="check that a run folder still matches its scenario "
-                       "and input files (checksums in provenance.json)")
-    v.add_argument("run", type=Path, help="a run folder written by `workbench run`")
+    v = sub.add_parser("verify", help="check that a run, sensitivity or grid folder still "
+                       "matches its scenario and input files (checksums in provenance.json)")
+    v.add_argument("run", type=Path, help="a folder written by `workbench run`, `workbench "
+                   "sensitivity` or `workbench grid` (the lines name which)")
     v.add_argument("--scenario", type=Path, default=None, help="the scenario file to check "
                    "against (default: the run's own, found relative to the run folder, "
                    "then where it was)")

@@ -6,11 +6,64 @@ Part of :mod:`workbench.cli`, which re-exports every name here.
 """
 from __future__ import annotations
 
+import re
 import textwrap
 
 #: Widest line of a run note on the console [characters]: one less than an 80-column
 #: terminal, which some terminals wrap at a line of exactly 80 characters.
 NOTE_WIDTH = 79
+
+
+def console_lines(lines, width=None) -> list[str]:
+    """Lines for the console, each wrapped to `width` characters (default
+    :data:`NOTE_WIDTH`) under a hanging indent: its continuation lines start two spaces
+    deeper than the line itself (``"  farm 2016-01: ..."`` goes on at four spaces).
+    Only the breaks change: a line is cut at its spaces, never inside a word or a path
+    (a longer word stands alone on an over-long line) nor between a number and the
+    unit or word after it (``77.4 %``, ``3 filled``), and the words are kept as they
+    are.  Used by ``workbench run`` and ``workbench demo`` for the status counts
+    (:func:`status_lines`), the span notes (:func:`run_span_notes`), the sites not
+    complete (:func:`site_status_lines`) and the totals failing completeness
+    (:func:`failing_lines`), which return one line each (a test or a check of what
+    was said reads them whole).
+
+    Examples
+    --------
+    >>> for x in console_lines(["  farm 2017-07: S N: sample coverage below minimum "
+    ...                         "(77.4 % of the period; minimum 90 %)"], width=37):
+    ...     print(x)
+      farm 2017-07: S N: sample coverage
+        below minimum (77.4 % of the
+        period; minimum 90 %)
+    >>> console_lines(["a minimum of 90 %"], width=15)
+    ['a minimum of', '  90 %']
+    >>> console_lines(["S: 68 complete, 3 filled"], width=19)
+    ['S: 68 complete,', '  3 filled']
+    >>> console_lines(["", "short"])
+    ['', 'short']
+    """
+    width = NOTE_WIDTH if width is None else width
+    out = []
+    for line in lines:
+        line = str(line).rstrip()
+        body = line.lstrip(" ")
+        indent = line[:len(line) - len(body)]
+        # a number and its unit or word stay on one line: the space between them is
+        # held by a character textwrap does not break at (NUL), put back after
+        held = "\0" not in body
+        if held:
+            body = _NUMBER_WORD.sub("\\1\0", body)
+        wrapped = textwrap.wrap(body, width=width, initial_indent=indent,
+                                subsequent_indent=indent + "  ", break_long_words=False,
+                                break_on_hyphens=False) or [line]
+        out.extend(x.replace("\0", " ") if held else x for x in wrapped)
+    return out
+
+
+#: A number and the unit or word after it (``77.4 %``, ``168 h``, ``3 filled``), kept on
+#: one line by :func:`console_lines`; a number before another number (a list of years)
+#: or a bracket is not held.
+_NUMBER_WORD = re.compile(r"(?<![\w.-])(\d[\d,.]*) (?=[A-Za-z%])")
 
 
 def status_lines(table, inputs) -> list[str]:

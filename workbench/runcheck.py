@@ -25,7 +25,7 @@ from . import __version__
 from .errors import WorkbenchError
 
 __all__ = ["RunRecordError", "Verification", "read_provenance", "verify_run",
-           "option_differences", "flat_options"]
+           "option_differences", "flat_options", "folder_kind", "FOLDER_NAMES"]
 
 
 class RunRecordError(WorkbenchError):
@@ -50,6 +50,28 @@ def read_provenance(run) -> dict:
         raise RunRecordError(f"{path}: no 'inputs' record, expected the provenance.json "
                              "of `workbench run`")
     return prov
+
+
+def folder_kind(run: Path, prov: dict) -> str:
+    """``"run"``, ``"sensitivity"``, ``"grid"`` or ``"other"``: what wrote folder `run`
+    (by the files its provenance.json lists, else those present): budget.csv
+    (``workbench run``, the apps' "Export run folder"), sensitivity.csv (``workbench
+    sensitivity``) or grid.nc (``workbench grid``)."""
+    names = set(prov.get("outputs") or []) or {p.name for p in Path(run).iterdir()}
+    for name, kind in (("budget.csv", "run"), ("sensitivity.csv", "sensitivity"),
+                       ("grid.nc", "grid")):
+        if name in names:
+            return kind
+    return "other"
+
+
+#: What ``workbench verify`` calls each kind of folder (:func:`folder_kind`), and what a
+#: new computation of its scenario is: ``(folder, computation)``.  A folder of no known
+#: kind is checked as a run folder, as before.
+FOLDER_NAMES = {"run": ("run folder", "a run"),
+                "sensitivity": ("sensitivity folder", "a `workbench sensitivity`"),
+                "grid": ("grid folder", "a `workbench grid` run"),
+                "other": ("run folder", "a run")}
 
 
 def flat_options(scenario: dict | None) -> dict:
@@ -157,7 +179,10 @@ def verify_run(run, scenario=None) -> Verification:
     Parameters
     ----------
     run : path
-        A folder written by ``workbench run`` (or the apps' "Export run folder").
+        A folder written by ``workbench run`` (or the apps' "Export run folder"),
+        ``workbench sensitivity`` or ``workbench grid``: the lines name its kind
+        (:func:`folder_kind`, "sensitivity folder ..."), from what its provenance.json
+        lists.
     scenario : path, optional
         The scenario file to check against (default: the run's own, found relative to
         the run folder, then at its recorded absolute path).  Its ``[inputs]`` name the
@@ -181,19 +206,22 @@ def verify_run(run, scenario=None) -> Verification:
     v = Verification(run)
     say, bad = v.lines.append, v.problems.append
     made = prov.get("version")
-    say(f"run folder {run}")
+    kind = folder_kind(run, prov)           # what wrote it: named in every line below
+    folder, again = FOLDER_NAMES[kind]
+    say(f"{folder} {run}" + ("" if kind in ("run", "other") else
+                             f" (written by `workbench {kind}`)"))
     say(f"  written {prov.get('run_finished_utc', '?')} by deposition workbench {made}"
         + ("" if made == __version__ else f" (this is {__version__}: a new run may differ)"))
     sites = prov.get("sites")
     if sites:               # an apps' export computes one site of its scenario's catalogue
         shown = ", ".join(sites[:8]) + (f" and {len(sites) - 8} more" if len(sites) > 8 else "")
-        say(f"  sites computed: {shown}")
+        say(f"  sites {'analysed' if kind == 'sensitivity' else 'computed'}: {shown}")
 
     # ------------------------------------------------------------------ outputs
     sums = prov.get("output_sha256")
     if sums is None:
-        say("outputs: not checked (this run folder records no checksums of its files; "
-            "runs of this version do)")
+        say(f"outputs: not checked (this {folder} records no checksums of its files; "
+            "those of this version do)")
     else:
         changed = []
         for name, digest in sums.items():
@@ -262,7 +290,7 @@ def verify_run(run, scenario=None) -> Verification:
     # ------------------------------------------------------------------ inputs
     # a `workbench grid` run reads the files of the scenario's [grid] section, a site
     # run (or an apps' export) those of its [inputs]
-    grid_run = "grid.nc" in (prov.get("outputs") or [])
+    grid_run = kind == "grid"
     now = None
     if loaded is not None:
         if grid_run:
@@ -318,11 +346,11 @@ def verify_run(run, scenario=None) -> Verification:
             if role not in records:
                 bad(f"input {role} added")
                 say(f"input {role}: named by the scenario now, not used by the run")
-    say("result: " + ("the run folder matches its scenario and inputs" if v.ok else
-                      f"{len(v.problems)} difference(s): a run of the scenario now would "
-                      "not reproduce this folder" if not any(p.startswith("output")
-                                                            for p in v.problems)
-                      else f"{len(v.problems)} difference(s), some in the run folder "
+    say("result: " + (f"the {folder} matches its scenario and inputs" if v.ok else
+                      f"{len(v.problems)} difference(s): {again} of the scenario now "
+                      "would not reproduce this folder" if not any(p.startswith("output")
+                                                                  for p in v.problems)
+                      else f"{len(v.problems)} difference(s), some in the {folder} "
                       "itself"))
     return v
 

@@ -17,8 +17,8 @@ import numpy as np
 import pandas as pd
 
 from .percent import no_percent_reason, percent_change
-from .runcheck import (Lines, RunRecordError, option_differences, read_provenance,
-                       short_digest, show)
+from .runcheck import (Lines, RunRecordError, folder_kind, option_differences,
+                       read_provenance, short_digest, show)
 
 __all__ = ["Comparison", "compare_runs", "budget_differences", "table_differences"]
 
@@ -122,17 +122,6 @@ SENSITIVITY_TABLES = {
 #: The columns that name a row of either table: the cell (site, receptor, period), the
 #: total (element, quantity) and the parameter (factor).
 SENSITIVITY_KEYS = ["site", "receptor", "period", "element", "quantity", "factor"]
-
-
-def folder_kind(run: Path, prov: dict) -> str:
-    """``"run"``, ``"sensitivity"``, ``"grid"`` or ``"other"``: what wrote folder `run`
-    (by the files its provenance.json lists, else those present)."""
-    names = set(prov.get("outputs") or []) or {p.name for p in Path(run).iterdir()}
-    for name, kind in (("budget.csv", "run"), ("sensitivity.csv", "sensitivity"),
-                       ("grid.nc", "grid")):
-        if name in names:
-            return kind
-    return "other"
 
 
 def table_differences(a, b, name: str, values: list, rtol: float = 0.0):

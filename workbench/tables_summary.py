@@ -18,7 +18,10 @@ def summary_table(result) -> pd.DataFrame:
     derived quantities (oxidized and reduced N, potential acidity, shares, the dry
     N bracket), the S and N totals with their status, the components they
     lack or flag, whether they pass completeness (``<e>_total_passes``) and, where
-    not, the first criterion failed (``<e>_total_completeness_failure``), and the wet
+    not, the first criterion failed (``<e>_total_completeness_failure``); with the
+    Monte Carlo's quantiles, those of the yearly rates too (``<e>_total_kg_ha_yr_p05``
+    ... ``_p95``: the amount's quantiles [kg ha-1] times the period's
+    ``annual_factor``, as the rate itself); and the wet
     chain's precipitation depth [mm], pH of the
     precipitation-weighted mean H+, free acidity deposited [eq ha-1] and the
     precipitation-weighted mean of each ion [umol L-1]; last, the derived sums' status,
@@ -56,7 +59,11 @@ def summary_table(result) -> pd.DataFrame:
         j = names.index(f"{e}_total")
         v = tot[si, ri, pi, j]
         frame[f"{e}_total_kg_ha"] = element_deposition_in(v, e, "kg_ha")
-        frame[f"{e}_total_kg_ha_yr"] = frame[f"{e}_total_kg_ha"] * ds["annual_factor"].values[pi]
+        fac = ds["annual_factor"].values[pi]      # rate per year = amount x factor [1]
+        frame[f"{e}_total_kg_ha_yr"] = frame[f"{e}_total_kg_ha"] * fac
+        for sfx in ("_p05", "_p50", "_p95"):   # the Monte Carlo's range, as a rate too
+            if f"{e}_total_kg_ha{sfx}" in frame:
+                frame[f"{e}_total_kg_ha_yr{sfx}"] = frame[f"{e}_total_kg_ha{sfx}"] * fac
         for col, var in (("status", "total_status"), ("missing_components",
                                                        "total_missing_components"),
                          ("flagged_components", "total_flagged_components")):

@@ -246,7 +246,8 @@ def test_a_sensitivity_folder_records_what_made_it_and_verifies(tiny, tmp_path, 
     among them), the inputs with their SHA-256 and the checksum of every file, so that
     `workbench verify` checks it and names an input edited afterwards.  Old code: no
     provenance.json; verify said "not a finished run folder (`workbench run` writes it
-    last)" of a finished folder."""
+    last)" of a finished folder; then it called the folder a "run folder" and a new
+    analysis "a run" (found by a trial user): it names the kind of folder it checks."""
     import json
     import shutil
     from workbench.cli import main
@@ -266,12 +267,21 @@ def test_a_sensitivity_folder_records_what_made_it_and_verifies(tiny, tmp_path, 
     assert set(prov["inputs"]) >= {"scenario", "sites", "precipitation", "air", "met"}
     capsys.readouterr()
     assert main(["verify", str(out)]) == 0
-    assert "result: the run folder matches its scenario and inputs" in capsys.readouterr().out
+    said = capsys.readouterr().out
+    assert said.splitlines()[0] == (f"sensitivity folder {out.resolve()} (written by "
+                                    "`workbench sensitivity`)")
+    assert "result: the sensitivity folder matches its scenario and inputs" in said
+    assert "sites analysed: " in said and "run folder" not in said
+    assert main(["check", str(out)]) == 2             # the folder given for its scenario
+    assert "is a sensitivity folder, not a scenario" in capsys.readouterr().err
     air = sc.input_path("air")
     assert air.is_relative_to(tmp_path / "proj")     # the copy's, not the shared file
     air.write_text(air.read_text() + "\n")
     assert main(["verify", str(out)]) == 1
-    assert f"input air ({air.name}): {air} differs from the run" in capsys.readouterr().out
+    said = capsys.readouterr().out
+    assert f"input air ({air.name}): {air} differs from the run" in said
+    assert ("result: 1 difference(s): a `workbench sensitivity` of the scenario now would "
+            "not reproduce this folder") in said
 
 
 def test_compare_of_two_sensitivity_folders_names_the_rows_that_differ(tiny, tmp_path, capsys):

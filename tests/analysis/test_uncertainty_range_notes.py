@@ -99,6 +99,32 @@ def test_units_of_the_quantile_columns_by_hand(run):
                 tot["flux_kg_ha" + q].iloc[0], rel=1e-8)
 
 
+def test_summary_csv_has_the_range_of_the_yearly_rates(run):
+    """summary.csv's rate columns S_total_kg_ha_yr and N_total_kg_ha_yr have their 5-95 %
+    range too: the amount's quantiles times the period's annual factor (8760 h over the
+    672 h of February 2021, by hand), as the rate is the amount times it (a quantile
+    of c X is c times that of X for c > 0: common practice), and budget.csv's
+    flux_kg_ha_yr quantiles of the same total; each beside its value.  Before, summary.csv
+    carried the quantiles of the amounts only: at a monthly resolution the rate column
+    stood without its range, 13 times the amount's."""
+    b = pd.read_csv(run["budget.csv"])
+    s = pd.read_csv(run["summary.csv"])
+    factor = 8760.0 / (28 * 24)
+    cols = list(s.columns)
+    for e in ("S", "N"):
+        rate = f"{e}_total_kg_ha_yr"
+        assert cols[cols.index(rate) + 1:cols.index(rate) + 4] == [
+            rate + q for q in ("_p05", "_p50", "_p95")]
+        tot = b[(b["period"] != "span") & (b["element"] == e) & (b["pathway"] == "total")
+                & (b["species"] == "all")]
+        for q in ("_p05", "_p50", "_p95"):
+            assert s.loc[0, rate + q] == pytest.approx(s.loc[0, f"{e}_total_kg_ha{q}"] * factor,
+                                                       rel=1e-8)
+            assert s.loc[0, rate + q] == pytest.approx(tot["flux_kg_ha_yr" + q].iloc[0],
+                                                       rel=1e-8)
+        assert s.loc[0, rate + "_p05"] <= s.loc[0, rate + "_p50"] <= s.loc[0, rate + "_p95"]
+
+
 def test_report_names_how_the_systematic_factors_were_drawn(run, tiny):
     """The report says under the ranges how the systematic factors were drawn, beside
     the words on what they cover: systematic_errors and the options of the laboratory
