@@ -16,7 +16,7 @@
    sea-salt tracer) counts sea salt, and exceedance.csv said only "S total flagged";
    the span row is the exceedance of the mean deposition, which the report headed
    "mean of the years" and the CSV did not say (the exceedance is not linear: the
-   demo's farm grass reads 0 for the mean deposition, 52 eq/ha/yr in 2019).
+   demo's farm grass reads 0 for the mean deposition, 43 eq/ha/yr in 2019).
 """
 import sys
 import types

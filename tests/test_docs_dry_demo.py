@@ -1,0 +1,169 @@
+"""Demo numbers quoted in the prose of docs/methods_dry.md that no table writer produces:
+each sentence below is read from the document and its numbers recomputed with
+:func:`workbench.drydep.velocities` on the demo year 2021 (every option at its default
+but the one the sentence names), so a change of the engine that moves one fails here
+until the sentence is re-measured.
+
+Held (annual mean Vd [cm/s], 2 decimals as written):
+- section 7, the LAI season rule against the month rule (Wesely);
+- section 8, the surface dew rule against the scheme's own (Wesely SO2);
+- section 9, Wesely's NH3 with the humidity cuticle against the scheme's paths;
+- section 9.5, SO2 with and without the SO2-NH3 co-deposition, both schemes.
+
+The reference is the engine itself (these are measured numbers, not checks of a method;
+the methods have their own tests in tests/drydep/). Rounding: half away from zero at two
+decimals (common practice), as the document's tables.
+"""
+from __future__ import annotations
+
+import importlib.util
+import re
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[1]
+DOC = ROOT / "docs" / "methods_dry.md"
+
+
+def _vd_table_module():
+    spec = importlib.util.spec_from_file_location("make_vd_table",
+                                                  ROOT / "docs" / "make_vd_table.py")
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    return mod
+
+
+@pytest.fixture(scope="module")
+def demo():
+    """(means, text): means(label, **options) -> gas -> (site, receptor) -> cm/s."""
+    from workbench.drydep import DryOptions, velocities
+    from workbench.stages import met_with_air
+    m = _vd_table_module()
+    study = m.demo_study()
+    surf = study.surfaces()
+    cache = {}
+
+    def means(**kw):
+        key = tuple(sorted(kw.items()))
+        if key not in cache:
+            opt = DryOptions(particles=(), components=False, gases=("SO2", "NO2", "O3", "NH3"),
+                             **kw)
+            met = met_with_air(study.inputs.met, study.inputs.air, surf, opt)
+            ds = velocities(met.sel(time=slice(*m.YEAR)), surf, opt)
+            cache[key] = {g: (ds[f"vd_{g}"].mean("time") * 100.0).compute()
+                          for g in ("SO2", "NO2", "O3", "NH3")}
+        return cache[key]
+    return means, DOC.read_text()
+
+
+def _r(x) -> str:
+    """Two decimals, half away from zero, as written in the document."""
+    from decimal import ROUND_HALF_UP, Decimal
+    return str(Decimal(repr(float(x))).quantize(Decimal("0.01"), rounding=ROUND_HALF_UP))
+
+
+def _v(means, gas, site, receptor) -> str:
+    return _r(means[gas].sel(site=site, receptor=receptor))
+
+
+def _span(means, gas, pairs) -> str:
+    vals = sorted(float(means[gas].sel(site=s, receptor=r)) for s, r in pairs)
+    return f"{_r(vals[0])}-{_r(vals[-1])}"
+
+
+def _flat(text: str) -> str:
+    return re.sub(r"\s+", " ", text)
+
+
+GRASS = [("ridge", "grass"), ("fell", "grass"), ("farm", "grass")]
+MOOR = [("ridge", "moorland"), ("fell", "moorland")]
+#: every active land receptor of the demo but the wetland (section 9's "over land")
+LAND = [("ridge", "conifer_forest"), ("ridge", "moorland"), ("ridge", "grass"),
+        ("fell", "moorland"), ("fell", "grass"), ("farm", "grass"), ("farm", "crops"),
+        ("farm", "deciduous_forest")]
+
+
+def test_codeposition_sentence_of_section_9_5(demo):
+    means, text = demo
+    m = re.search(r"the option raises annual mean Vd\(SO2\), Wesely -> with co-deposition: "
+                  r"(.*?)Both schemes converge", _flat(text))
+    assert m, "the co-deposition sentence of docs/methods_dry.md 9.5"
+    got = m.group(1)
+    w0, w1 = means(gas_scheme="wesely1989"), means(gas_scheme="wesely1989",
+                                                  so2_codeposition=True)
+    z0, z1 = means(gas_scheme="zhang2003"), means(gas_scheme="zhang2003",
+                                                 so2_codeposition=True)
+    want = (f"ridge conifer {_v(w0, 'SO2', 'ridge', 'conifer_forest')} -> "
+            f"{_v(w1, 'SO2', 'ridge', 'conifer_forest')}, farm deciduous "
+            f"{_v(w0, 'SO2', 'farm', 'deciduous_forest')} -> "
+            f"{_v(w1, 'SO2', 'farm', 'deciduous_forest')}, grasses {_span(w0, 'SO2', GRASS)} -> "
+            f"{_span(w1, 'SO2', GRASS)}, moorland {_span(w0, 'SO2', MOOR)} -> "
+            f"{_span(w1, 'SO2', MOOR)}, wetland {_v(w0, 'SO2', 'mere', 'wetland')} -> "
+            f"{_v(w1, 'SO2', 'mere', 'wetland')}, crops {_v(w0, 'SO2', 'farm', 'crops')} -> "
+            f"{_v(w1, 'SO2', 'farm', 'crops')}, water unchanged "
+            f"({_v(w1, 'SO2', 'mere', 'water')}); Zhang: conifer "
+            f"{_v(z0, 'SO2', 'ridge', 'conifer_forest')} -> "
+            f"{_v(z1, 'SO2', 'ridge', 'conifer_forest')}, deciduous "
+            f"{_v(z0, 'SO2', 'farm', 'deciduous_forest')} -> "
+            f"{_v(z1, 'SO2', 'farm', 'deciduous_forest')}, grasses {_span(z0, 'SO2', GRASS)} -> "
+            f"{_span(z1, 'SO2', GRASS)}.")
+    assert got.strip() == want, f"re-measure docs/methods_dry.md 9.5:\n{got}\n{want}"
+    assert _v(w0, "SO2", "mere", "water") == _v(w1, "SO2", "mere", "water")
+
+
+def test_season_rule_sentence_of_section_7(demo):
+    means, text = demo
+    m = re.search(r"against the month rule it moves Wesely's annual Vd by at most ([\d.]+) "
+                  r"cm/s \((.*?)\); Zhang et al\. \(2003\) are not moved", _flat(text))
+    assert m, "the season-rule sentence of docs/methods_dry.md 7"
+    lai, month = means(gas_scheme="wesely1989"), means(gas_scheme="wesely1989",
+                                                       season_rule="month")
+
+    def pair(gas, site, rec):
+        return f"{_v(month, gas, site, rec)} -> {_v(lai, gas, site, rec)}"
+    want = (f"SO2 mere wetland {pair('SO2', 'mere', 'wetland')}, farm deciduous "
+            f"{pair('SO2', 'farm', 'deciduous_forest')}, farm crops "
+            f"{pair('SO2', 'farm', 'crops')}; NO2 farm crops {pair('NO2', 'farm', 'crops')}, "
+            f"mere wetland {pair('NO2', 'mere', 'wetland')}; O3 farm crops "
+            f"{pair('O3', 'farm', 'crops')}")
+    assert m.group(2) == want, f"re-measure docs/methods_dry.md 7:\n{m.group(2)}\n{want}"
+    largest = max(float(abs(lai[g] - month[g]).max()) for g in lai)
+    assert _r(largest) == m.group(1)
+    zl, zm = means(gas_scheme="zhang2003"), means(gas_scheme="zhang2003", season_rule="month")
+    assert max(float(abs(zl[g] - zm[g]).max()) for g in zl) < 0.005
+
+
+def test_dew_rule_sentence_of_section_8(demo):
+    means, text = demo
+    m = re.search(r"and SO2 ridge conifer ([\d.]+ -> [\d.]+), farm deciduous ([\d.]+ -> "
+                  r"[\d.]+), grass ([\d.-]+ -> [\d.-]+) cm/s", _flat(text))
+    assert m, "the dew-rule sentence of docs/methods_dry.md 8"
+    air, surface = means(gas_scheme="wesely1989", dew_rule="scheme"), \
+        means(gas_scheme="wesely1989")
+    want = (f"{_v(air, 'SO2', 'ridge', 'conifer_forest')} -> "
+            f"{_v(surface, 'SO2', 'ridge', 'conifer_forest')}",
+            f"{_v(air, 'SO2', 'farm', 'deciduous_forest')} -> "
+            f"{_v(surface, 'SO2', 'farm', 'deciduous_forest')}",
+            f"{_span(air, 'SO2', GRASS)} -> {_span(surface, 'SO2', GRASS)}")
+    assert m.groups() == want
+
+
+def test_nh3_cuticle_sentence_of_section_9(demo):
+    means, text = demo
+    flat = _flat(text)
+    m = re.search(r"Wesely's Vd\(NH3\) rises from ([\d.-]+) to ([\d.-]+) cm/s over land "
+                  r"\(wetland ([\d.]+) -> ([\d.]+);", flat)
+    assert m, "the NH3 cuticle sentence of docs/methods_dry.md 9"
+    scheme, humid = means(gas_scheme="wesely1989", nh3_cuticle="scheme"), \
+        means(gas_scheme="wesely1989")
+    assert m.groups() == (_span(scheme, "NH3", LAND), _span(humid, "NH3", LAND),
+                          _v(scheme, "NH3", "mere", "wetland"),
+                          _v(humid, "NH3", "mere", "wetland"))
+    m = re.search(r"over the land receptors is ([\d.-]+) cm/s at AR = 0\.1, ([\d.-]+) at "
+                  r"0\.3, ([\d.-]+) at 1 and ([\d.-]+) at 3\.", flat)
+    assert m, "the acid-ratio sentence of docs/methods_dry.md 9"
+    land = LAND + [("mere", "wetland")]
+    assert m.groups() == tuple(
+        _span(means(gas_scheme="wesely1989", nh3_acid_ratio=ar), "NH3", land)
+        for ar in (0.1, 0.3, 1.0, 3.0))
