@@ -174,9 +174,9 @@ def shared_texts(ds):
     """
     if ds is None:
         return None
-    new = {}
+    new, indexed = {}, set(ds.xindexes)
     for name, v in ds.variables.items():
-        if v.dtype != object or v.size < 2 or name in ds.indexes:
+        if v.dtype != object or v.size < 2 or name in indexed:
             continue
         flat = v.values.reshape(-1)
         if pd.api.types.infer_dtype(flat, skipna=False) != "string":
