@@ -1,10 +1,13 @@
 """The sites of a network in blocks: blocks of the sites that ask for the same receptor
 surfaces (:func:`wanted_blocks`, :func:`site_blocks`), a block without met joined to
-one with some, and what a block needs of a worker's memory (:func:`block_need`,
-:func:`describe_block`) (split from :mod:`workbench.blocks`, which re-exports every
-name).
+one with some, what a block needs of a worker's memory (:func:`block_need`,
+:func:`describe_block`) and its texts held once each (:func:`shared_texts`) (split
+from :mod:`workbench.blocks`, which re-exports every name).
 """
 from __future__ import annotations
+
+import numpy as np
+import pandas as pd
 
 
 def _n_sites(n) -> str:
@@ -146,3 +149,44 @@ def describe_block(blocks, wanted, now, met, block_sites):
                 f"and receptor), besides about {WORKER_BASE_MIB} MiB of the worker itself",
                 smaller)
     return describe
+
+
+def shared_texts(ds):
+    """`ds` with each text variable (an object array of ``str`` only) holding one
+    ``str`` object per distinct text: equal cells share it.  The same values, dims,
+    attributes and encoding; index coordinates and other dtypes are kept as they are;
+    None stays None.
+
+    The budget's statuses and notes and the screened samples' checks are made by
+    ``numpy.where``, ``numpy.full`` and ``astype(object)`` over fixed-width text, which
+    give every cell a ``str`` object of its own (about 50 bytes and the text): a
+    network run in blocks holds every block's results until they are reduced, and
+    these copies were about 0.05 MB a site-year of it (docs/performance.md, "What a
+    block holds for the monthly trends").
+
+    >>> import xarray as xr
+    >>> ds = xr.Dataset({"s": ("x", np.array(["missing"] * 3).astype(object))})
+    >>> ds["s"].values[0] is ds["s"].values[2]
+    False
+    >>> out = shared_texts(ds)
+    >>> out["s"].values[0] is out["s"].values[2], out.identical(ds)
+    (True, True)
+    """
+    if ds is None:
+        return None
+    new, indexed = {}, set(ds.xindexes)
+    for name, v in ds.variables.items():
+        if v.dtype != object or v.size < 2 or name in indexed:
+            continue
+        flat = v.values.reshape(-1)
+        if pd.api.types.infer_dtype(flat, skipna=False) != "string":
+            continue                      # a None, a NaN or a number among them: as it is
+        codes, uniques = pd.factorize(flat)
+        held = np.asarray(uniques, dtype=object)     # the first cell of each text
+        new[name] = v.copy(deep=False, data=held[codes].reshape(v.shape))
+    if not new:
+        return ds
+    data = {n: x for n, x in new.items() if n in ds.data_vars}
+    coords = {n: x for n, x in new.items() if n not in ds.data_vars}
+    out = ds.assign(data) if data else ds
+    return out.assign_coords(coords) if coords else out

@@ -49,6 +49,7 @@ import pandas as pd
 from .blockreduce import reduce_blocks
 from .io.common import release_free_memory
 from .pipeline import Result, Study
+from .tables_budget import lean_budget
 from .worker_memory import completed, result as task_result, watch
 
 # the local cluster (defined here before)
@@ -58,7 +59,7 @@ from .block_cluster import (UNSET_WORKER_ENVIRON, WORKER_CONFIG,  # noqa: F401
 # the sites in blocks and a block's memory (defined here before)
 from .block_sites import (BLOCK_BYTES_PER_SITE_RECEPTOR_HOUR, WORKER_BASE_MIB,  # noqa: F401
                           _n_sites, block_need, blocks_with_met, describe_block,
-                          site_blocks, wanted_blocks)
+                          shared_texts, site_blocks, wanted_blocks)
 
 __all__ = ["ClusterStart", "close_client", "run_blocks", "run_network", "site_blocks",
            "start_client", "wanted_blocks", "wants_blocks"]
@@ -81,10 +82,13 @@ def run_block(inputs, site_overrides, args: dict, keep_velocities=False) -> dict
     Returns
     -------
     dict
-        ``budget``, ``years`` (the same object as ``budget`` at yearly resolution),
+        ``budget``, ``years`` (None at yearly resolution: the budget is the years),
+        ``monthly`` (the monthly budget's variables that the trends read,
+        :func:`workbench.tables_budget.lean_budget`; None in a monthly run),
         ``screened``, ``wet``, ``velocities`` (or None), ``periods``, ``options``,
         ``notes`` and ``schemes`` (scheme -> (budget, years) of the other gas schemes
-        when ``compare_schemes`` is set; else empty).
+        when ``compare_schemes`` is set; else empty); their texts each held once
+        (:func:`shared_texts`).
     """
     from .comparison import schemes_in_order
     study = Study(_loaded(inputs), site_overrides)
@@ -97,14 +101,19 @@ def run_block(inputs, site_overrides, args: dict, keep_velocities=False) -> dict
             schemes[scheme] = (other.budget, None if other.years is other.budget else other.years)
     # the monthly budget the trends of the run folder read, made here while the block's
     # velocities are cached (else the whole network would be run again at months)
+    # (only what the trends read of it: every block's is held until the reduction)
     monthly = None
     if args.get("resolution", "year") != "month":
-        monthly = study.run(**{**args, "resolution": "month"}).budget
-    out = {"budget": res.budget, "years": None if res.years is res.budget else res.years,
-           "monthly": monthly, "screened": res.screened, "wet": res.wet,
+        monthly = lean_budget(study.run(**{**args, "resolution": "month"}).budget)
+    # held until the reduction too: each distinct text once, not once per cell
+    out = {"budget": shared_texts(res.budget),
+           "years": None if res.years is res.budget else shared_texts(res.years),
+           "monthly": shared_texts(monthly), "screened": shared_texts(res.screened),
+           "wet": shared_texts(res.wet),
            "velocities": res.velocities if keep_velocities else None,
            "periods": res.periods, "options": res.options, "notes": list(res.notes),
-           "schemes": schemes, "spare": _spare(args)}
+           "schemes": {k: tuple(shared_texts(x) for x in v) for k, v in schemes.items()},
+           "spare": _spare(args)}
     del study, res
     release_free_memory()      # the block's hourly arrays: back to the system
     return out

@@ -143,6 +143,24 @@ def budget_table(ds: xr.Dataset, lean: bool = False) -> pd.DataFrame:
     return _sorted(frame.assign(sulfate_basis=_sulfate_basis(ds, frame, basis)))
 
 
+#: The data variables of a budget Dataset that :func:`budget_table` reads with `lean`
+#: (besides the coordinates of their axes: site, receptor, period, period_start,
+#: annual_factor, element, pathway, species, total).
+LEAN_VARIABLES = ("deposition", "status", "total_deposition", "total_status", "active")
+
+
+def lean_budget(ds: xr.Dataset) -> xr.Dataset:
+    """`ds` with only what ``budget_table(ds, lean=True)`` reads: the data variables of
+    :data:`LEAN_VARIABLES` and the coordinates on their axes (the same rows, bit for
+    bit).
+
+    A network run in blocks holds every block's monthly budget until the blocks are
+    reduced, for the monthly trends only (:func:`workbench.blocks.run_block`): 49 data
+    variables of which a trend reads these 5 (about 0.13 MB a site-year held, 0.01
+    with these; docs/performance.md, "What a block holds for the monthly trends")."""
+    return ds[[n for n in ds.data_vars if n in LEAN_VARIABLES]]
+
+
 #: The keys of one sum row's parts: same site, receptor, period and element.
 _SUM_KEYS = ["site", "receptor", "period_start", "element"]
 
