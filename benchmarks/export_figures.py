@@ -30,7 +30,6 @@ from __future__ import annotations
 import argparse
 import json
 import os
-import platform
 import statistics
 import sys
 import tempfile
@@ -40,21 +39,10 @@ from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from ui_latency import machine  # noqa: E402  (the machine's description, as there)
 
 CASES = ("sizes", "alone", "together", "startup", "drawing", "scale1")
-
-
-def machine() -> dict:
-    cpu = ""
-    try:
-        for line in Path("/proc/cpuinfo").read_text().splitlines():
-            if line.startswith("model name"):
-                cpu = line.split(":", 1)[1].strip()
-                break
-    except OSError:
-        pass
-    return {"python": platform.python_version(), "platform": platform.platform(),
-            "cpu": cpu or platform.processor(), "cpus": os.cpu_count()}
 
 
 def _load() -> list:
