@@ -166,3 +166,62 @@ def test_console_lines_break_at_spaces_only_under_a_hanging_indent():
             assert [w for x in wrapped for w in x.split()] == line.split()
             assert all(len(x) <= 79 or x.split() == [path] for x in wrapped)
     assert console_lines(["note: " + path]) == ["note:", "  " + path]
+
+
+#: The demo's note on monthly periods (`workbench run demo_data/scenario.toml
+#: --resolution month`), as provenance.json's run_notes holds it: at 79 characters the
+#: console printed "[wet] period_fill =" at a line's end and "seasonal" on the next,
+#: and "[budget]" apart from "min_air_coverage = 0.75".
+DEMO_MONTH_NOTES = [
+    "completeness of month periods: one precipitation sample (the median, 168 h) is "
+    "25.0 % of the shortest period (2017-02, 672 h), more than the 10 % a period may "
+    "miss under [wet] min_coverage_fraction = 0.9: one such sample not used "
+    "(contaminated, lost) fails the period, where it is 1.9 % of a year. The rule is "
+    "the same for every period. To judge these periods less strictly, lower [wet] "
+    "min_coverage_fraction (to 0.75 or less to let one such sample go), or fill a "
+    "failing period's PWM with [wet] period_fill = \"seasonal\" (the site's multi-year "
+    "PWM of its season, marked filled) (docs/budget.md, \"Periods other than the "
+    "calendar year\")",
+    "completeness of month periods: one air sample of sampler FRM-N1 (the median, 744 "
+    "h) is as long as the shortest period (2017-02, 672 h) or longer: one such sample "
+    "not used (contaminated, lost) leaves the periods it spans without a concentration "
+    "for much of their hours, short of [budget] min_air_coverage = 0.75 unless that is "
+    "set very low (docs/budget.md, \"Periods other than the calendar year\")",
+]
+DEMO_OPTIONS = ["[wet] min_coverage_fraction = 0.9:", "[wet] min_coverage_fraction",
+                "[wet] period_fill = \"seasonal\"", "[budget] min_air_coverage = 0.75"]
+
+
+@pytest.mark.parametrize("width", range(44, 100, 5))   # 79 among them
+def test_an_option_and_its_value_stay_on_one_line(width):
+    """``[section] key = value`` (a quoted value whole) is never cut across lines: a
+    reader copies it into the scenario as printed.  Only the breaks move: the words are
+    those of the note, and no line is longer than `width`."""
+    from workbench.cli_status import console_lines, run_note_lines
+    lines = run_note_lines(DEMO_MONTH_NOTES, width=width)[1:]
+    assert max(len(x) for x in lines) <= width
+    assert _words(" ".join(lines)) == _words(" ".join("- " + n for n in DEMO_MONTH_NOTES))
+    for option in DEMO_OPTIONS:
+        assert any(option in x for x in lines), (option, lines)
+    assert not any(x.rstrip().endswith(("=", "[wet]", "[budget]")) for x in lines), lines
+    for line in console_lines(["  " + n for n in DEMO_MONTH_NOTES], width=width):
+        assert not line.rstrip().endswith(("=", "[wet]", "[budget]")), line
+
+
+def test_a_monthly_run_prints_no_option_apart_from_its_value(tmp_path, capsys):
+    """End to end on a monthly run: every line of the notes at most 79 characters, and
+    every ``[section] key = value`` of the run's notes whole on one printed line."""
+    import re
+    scenario = tb._write(tmp_path)                 # weekly samples, monthly periods
+    out = tmp_path / "out"
+    assert main(["run", str(scenario), "--out", str(out), "--quiet"]) == 0
+    printed = capsys.readouterr().out
+    lines = printed.split("notes of the run")[1].splitlines()[1:]
+    lines = lines[:next((i for i, x in enumerate(lines) if not x.startswith("  ")),
+                        len(lines))]
+    assert lines and max(len(x) for x in lines) <= 79
+    notes = json.loads((out / "provenance.json").read_text())["run_notes"]
+    options = re.findall(r'\[\w+\] \w+ = (?:"[^"]*"|[^\s"]+)', " ".join(notes))
+    assert options
+    for option in options:
+        assert any(option in x for x in lines), option

@@ -33,8 +33,8 @@ from .cli_status import (console_lines, failing_lines, run_note_lines,  # noqa: 
                          run_span_notes, site_status_lines, status_lines,
                          uncertainty_lines)
 # the terminal: stderr's open line, Ctrl-C (defined here before)
-from .cli_terminal import (_LineEnd, _catch_ctrl_c, _end_line,  # noqa: F401
-                           _in_gc_callback, _on_ctrl_c)
+from .cli_terminal import (_LineEnd, _PipeWatch, _catch_ctrl_c, _end_line,  # noqa: F401
+                           _in_gc_callback, _on_ctrl_c, _quiet_stdout)
 
 
 def demo_folder() -> Path:
@@ -375,14 +375,30 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv=None) -> int:
-    """Run the command line; returns the exit code (0 success, 2 error, 130 Ctrl-C)."""
+    """Run the command line; returns the exit code (0 success, 2 error, 130 Ctrl-C, 141
+    stdout closed by its reader).
+
+    A closed stdout (``workbench verify DIR | head -2``: ``head`` is done after two
+    lines) is not an error: the command ends quietly with 141, the status a shell gives
+    a program ended by SIGPIPE (128 + 13; common practice), and stdout is pointed at
+    os.devnull as the Python docs recommend (signal module, "Note on SIGPIPE")."""
     import signal
     args = build_parser().parse_args(argv)
-    stderr = sys.stderr
+    stderr, stdout = sys.stderr, sys.stdout
     sys.stderr = _LineEnd(stderr)        # an error starts on a line of its own
+    sys.stdout = _PipeWatch(stdout)      # a closed stdout ends the command quietly
     before = _catch_ctrl_c()
     try:
-        return args.func(args)
+        code = args.func(args)
+        sys.stdout.flush()               # a closed pipe is met here, not at exit
+        return code
+    except BrokenPipeError as exc:
+        if sys.stdout.broken:
+            _quiet_stdout(stdout)
+            return 141
+        from .runfolder import os_error_message
+        _error(os_error_message(exc, what="read or write"))
+        return 2
     except WorkbenchError as exc:
         _error(f"{exc}")
         return 2
@@ -399,7 +415,7 @@ def main(argv=None) -> int:
         if before is not None:
             signal.signal(signal.SIGINT, before)
         _end_line()
-        sys.stderr = stderr
+        sys.stderr, sys.stdout = stderr, stdout
 
 
 def _error(text):

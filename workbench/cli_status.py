@@ -20,12 +20,13 @@ def console_lines(lines, width=None) -> list[str]:
     deeper than the line itself (``"  farm 2016-01: ..."`` goes on at four spaces).
     Only the breaks change: a line is cut at its spaces, never inside a word or a path
     (a longer word stands alone on an over-long line) nor between a number and the
-    unit or word after it (``77.4 %``, ``3 filled``), and the words are kept as they
-    are.  Used by ``workbench run`` and ``workbench demo`` for the status counts
-    (:func:`status_lines`), the span notes (:func:`run_span_notes`), the sites not
-    complete (:func:`site_status_lines`) and the totals failing completeness
-    (:func:`failing_lines`), which return one line each (a test or a check of what
-    was said reads them whole).
+    unit or word after it (``77.4 %``, ``3 filled``) nor inside an option and its value
+    (``[wet] period_fill = "seasonal"``, :func:`_hold_options`), and the words are
+    kept as they are.  Used by ``workbench run`` and ``workbench demo`` for the status
+    counts (:func:`status_lines`), the span notes (:func:`run_span_notes`), the sites
+    not complete (:func:`site_status_lines`) and the totals failing completeness
+    (:func:`failing_lines`), which return one line each (a test or a check of what was
+    said reads them whole).
 
     Examples
     --------
@@ -52,7 +53,7 @@ def console_lines(lines, width=None) -> list[str]:
         # held by a character textwrap does not break at (NUL), put back after
         held = "\0" not in body
         if held:
-            body = _NUMBER_WORD.sub("\\1\0", body)
+            body = _NUMBER_WORD.sub("\\1\0", _hold_options(body))
         wrapped = textwrap.wrap(body, width=width, initial_indent=indent,
                                 subsequent_indent=indent + "  ", break_long_words=False,
                                 break_on_hyphens=False) or [line]
@@ -64,6 +65,33 @@ def console_lines(lines, width=None) -> list[str]:
 #: one line by :func:`console_lines`; a number before another number (a list of years)
 #: or a bracket is not held.
 _NUMBER_WORD = re.compile(r"(?<![\w.-])(\d[\d,.]*) (?=[A-Za-z%])")
+
+#: An option as the notes name it: ``[section] key``, with `` = value`` where one is
+#: given (a quoted value whole, else the value up to the next space).
+_OPTION = re.compile(r'\[[A-Za-z_][\w.]*\] [A-Za-z_]\w*(?: = (?:"[^"\n]*"|[^\s"]+))?')
+
+
+def _hold_options(text: str) -> str:
+    """`text` with the spaces of each option (``[wet] period_fill = "seasonal"``,
+    ``[budget] min_air_coverage = 0.75``, ``[dry] so2_codeposition``) replaced by NUL,
+    a character textwrap does not break at, so that a wrapped line never ends with
+    ``[wet] period_fill =`` and the value on the next; the caller puts the spaces back
+    after wrapping (a text that holds a NUL already is not given).
+
+    >>> _hold_options('fill with [wet] period_fill = "seasonal" (the season)').split(" ")
+    ['fill', 'with', '[wet]\\x00period_fill\\x00=\\x00"seasonal"', '(the', 'season)']
+    """
+    return _OPTION.sub(lambda m: m.group(0).replace(" ", "\0"), text)
+
+
+def _wrap(text: str, width: int, first: str, rest: str) -> list[str]:
+    """`text` wrapped by textwrap to `width` under the indents `first` and `rest`,
+    at spaces only and never inside an option (:func:`_hold_options`)."""
+    held = "\0" not in text
+    body = _hold_options(text) if held else text
+    lines = textwrap.wrap(body, width=width, initial_indent=first, subsequent_indent=rest,
+                          break_long_words=False, break_on_hyphens=False)
+    return [x.replace("\0", " ") for x in lines] if held else lines
 
 
 def status_lines(table, inputs) -> list[str]:
@@ -217,7 +245,8 @@ def run_note_lines(notes, site_ids=(), base=None, said=(), width=None,
                    min_sites=None) -> list[str]:
     """The run's notes for the console, as report.html ("Notes") and provenance.json
     (``run_notes``) carry them: a heading, then each note once, wrapped to `width`
-    characters (default :data:`NOTE_WIDTH`) under a hanging "  - ".
+    characters (default :data:`NOTE_WIDTH`) under a hanging "  - ", an option and its
+    value (``[wet] period_fill = "seasonal"``) on one line (:func:`_hold_options`).
 
     Parameters
     ----------
@@ -267,9 +296,7 @@ def run_note_lines(notes, site_ids=(), base=None, said=(), width=None,
         return []
     lines = ['notes of the run (report.html, "Notes"; provenance.json, run_notes):']
     for n in shown:
-        lines.extend(textwrap.wrap(" ".join(n.split()), width=width, initial_indent="  - ",
-                                   subsequent_indent="    ", break_long_words=False,
-                                   break_on_hyphens=False))
+        lines.extend(_wrap(" ".join(n.split()), width, "  - ", "    "))
     return lines
 
 
@@ -299,5 +326,4 @@ def uncertainty_lines(out, result) -> list[str]:
         line += ("; the draws keep the velocities of the measured air under [dry] "
                  + " and ".join(f"{k} = true" for k in held)
                  + " (docs/methods_uncertainty.md, \"Velocities that depend on the air\")")
-    return textwrap.wrap(line, width=NOTE_WIDTH, subsequent_indent="  ",
-                         break_long_words=False, break_on_hyphens=False)
+    return _wrap(line, NOTE_WIDTH, "", "  ")

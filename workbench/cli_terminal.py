@@ -36,6 +36,54 @@ class _LineEnd:
         return getattr(self.stream, name)
 
 
+class _PipeWatch:
+    """A text stream written through, knowing whether a write or flush met a closed pipe
+    (BrokenPipeError): the reader of a pipe has gone, as ``head`` does after its lines.
+
+    ``main`` puts it in place of ``sys.stdout`` for a command, so that a broken pipe of
+    stdout (the user's reader is done) ends the command quietly, where one of another
+    stream (a socket, a file) is still an error to report.
+    """
+
+    def __init__(self, stream):
+        self.stream = stream
+        self.broken = False
+
+    def write(self, text):
+        try:
+            return self.stream.write(text)
+        except BrokenPipeError:
+            self.broken = True
+            raise
+
+    def flush(self):
+        try:
+            return self.stream.flush()
+        except BrokenPipeError:
+            self.broken = True
+            raise
+
+    def __getattr__(self, name):          # fileno, isatty, encoding, ...
+        return getattr(self.stream, name)
+
+
+def _quiet_stdout(stream):
+    """Point the file descriptor of `stream` (the real stdout) at os.devnull, so that
+    the interpreter's own flush at exit meets no closed pipe: what the Python docs
+    recommend for a closed stdout (signal module, "Note on SIGPIPE").  A stream without
+    a file descriptor (a test's capture) is left as it is."""
+    import os
+    try:
+        fd = stream.fileno()
+    except (AttributeError, OSError, ValueError):
+        return
+    devnull = os.open(os.devnull, os.O_WRONLY)
+    try:
+        os.dup2(devnull, fd)
+    finally:
+        os.close(devnull)
+
+
 def _end_line():
     """End an open line on stderr (see :class:`_LineEnd`)."""
     if isinstance(sys.stderr, _LineEnd):

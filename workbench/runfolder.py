@@ -57,10 +57,15 @@ def os_error_message(exc: OSError, path=None, what="write", option="--out") -> s
     >>> import errno
     >>> os_error_message(OSError(errno.ENOSPC, "No space left on device"), "/data/run/budget.nc")
     'could not write /data/run/budget.nc: No space left on device [ENOSPC]; the disk is full: free some space or choose --out on another disk'
+
+    An error of no file (a socket, a pipe) names none:
+
+    >>> os_error_message(BrokenPipeError(errno.EPIPE, "Broken pipe"), what="read or write")
+    'could not read or write: Broken pipe [EPIPE]'
     """
     where = exc.filename if exc.filename is not None else path
     code = errno.errorcode.get(exc.errno, "") if exc.errno is not None else ""
-    text = f"could not {what} {where}: {exc.strerror or exc}"
+    text = f"could not {what}{'' if where is None else f' {where}'}: {exc.strerror or exc}"
     if code:
         text += f" [{code}]"
     hint = _HINTS.get(exc.errno)
