@@ -175,15 +175,43 @@ def check_overlaps(tab: RawTable, sites, samplers, start, end, mask=None, what="
                         f"of the {what} on line {int(tab.lines[i_prev])}")
 
 
+def reason_where(mask, text) -> np.ndarray:
+    """Per-row reason: `text` where `mask` (bool [n]), "" elsewhere.
+
+    An object array whose cells share one ``str`` (8 bytes a row), where
+    ``numpy.where(mask, text, "")`` makes a fixed-width text array of 4 bytes a
+    character a row (a reason of 100 characters: 400 bytes on every row, with or
+    without a reason).  `text` may be an array [n] (a reason per row): its cells where
+    `mask` are taken.
+    """
+    mask = np.asarray(mask, dtype=bool)
+    out = np.full(mask.shape, "", dtype=object)
+    if np.ndim(text):
+        out[mask] = np.asarray(text, dtype=object)[mask]
+    else:
+        out[mask] = str(text)
+    return out
+
+
 def join_reasons(parts) -> np.ndarray:
-    """Join lists of per-row reason arrays ("" = none) into "; "-separated text."""
+    """Join lists of per-row reason arrays ("" = none) into "; "-separated text.
+
+    Returns an object array [n]; only the rows with a reason in two parts get a new
+    ``str`` (the others keep the part's own object, so a row without any reason holds
+    the one ``""`` of the first part)."""
     if not parts:
         return np.array([], dtype=object)
     out = np.asarray(parts[0], dtype=object).copy()
     for p in parts[1:]:
         p = np.asarray(p, dtype=object)
-        both = (out != "") & (p != "")
-        out = np.where(both, out + "; " + p, np.where(p != "", p, out))
+        has = p != ""
+        if not has.any():
+            continue
+        both = has & (out != "")
+        if both.any():
+            out[both] = out[both] + "; " + p[both]
+        only = has & ~both
+        out[only] = p[only]
     return out
 
 

@@ -16,7 +16,7 @@ from .. import species as _species
 from ..errors import InputError, suggest
 from ..units import to_amount
 from . import plausible as _plausible
-from .common import check_intervals, check_sites, join_reasons, unit_error
+from .common import check_intervals, check_sites, join_reasons, reason_where, unit_error
 from .table import RawTable
 
 
@@ -115,8 +115,8 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero
             with np.errstate(invalid="ignore"):    # mol m-3 x kg mol-1 = kg m-3 = 1e3 mg/L
                 deep = (~cens & ~masked
                         & (amount * _species.get(sp).molar_mass * 1e3 < -negative_tol_mg_l))
-            why_parts.append(np.where(deep, f"{sp} negative beyond the blank tolerance "
-                                      f"-{negative_tol_mg_l:g} mg/L (masked)", ""))
+            why_parts.append(reason_where(deep, f"{sp} negative beyond the blank tolerance "
+                                          f"-{negative_tol_mg_l:g} mg/L (masked)"))
             masked = masked | deep
         ledger_parts.extend(why_parts)
         if masked_why is not None:
@@ -130,10 +130,13 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero
         value = np.where(cens | neg | zero, np.nan, amount)
         dl = np.where(cens, amount, np.nan)
         data[sp] = (value, cens | neg | zero, dl, kind)
-        ledger_parts.append(np.where(cens, f"{sp} below detection", ""))
-        ledger_parts.append(np.where(neg, f"{sp} negative (censored)", ""))
-        ledger_parts.append(np.where(zero, f"{sp} reported as 0 (censored as below detection:"
-                                     f" write '<limit', or leave empty if not measured)", ""))
+        # one shared str a reason (reason_where), not a fixed-width text array of the
+        # reason's length on every row: the parts of every column are held until joined
+        ledger_parts.append(reason_where(cens, f"{sp} below detection"))
+        ledger_parts.append(reason_where(neg, f"{sp} negative (censored)"))
+        ledger_parts.append(reason_where(zero, f"{sp} reported as 0 (censored as below "
+                                         f"detection: write '<limit', or leave empty if "
+                                         f"not measured)"))
     return data
 
 
@@ -184,8 +187,12 @@ def _mask_sentinels(tab, name, raw, values, parts):
 def _sentinel_reasons(tab, name, label, sentinel):
     """The ledger reason of each row whose column `name` holds a missing-value code
     (``<label> <value as typed> looks like a missing-value code (masked)``; "" else)."""
-    return np.where(sentinel, f"{label} " + tab.frame[name].to_numpy(dtype=object).astype(str)
-                    + " looks like a missing-value code (masked)", "")
+    sentinel = np.asarray(sentinel, dtype=bool)
+    out = np.full(sentinel.shape, "", dtype=object)     # texts only on the flagged rows
+    typed = tab.frame[name].to_numpy(dtype=object)[sentinel].astype(str)
+    out[sentinel] = (f"{label} " + typed + " looks like a missing-value code (masked)"
+                     ).astype(object)
+    return out
 
 
 #: Texts a gauge or collector record may hold for a trace of precipitation.

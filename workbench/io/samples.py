@@ -18,8 +18,8 @@ from .. import species as _species
 from ..constants import GAS_CONSTANT
 from ..errors import InputError
 from ..units import MM_PER_M, Q_, convert_plain
-from .common import (check_overlaps, check_time_zones, duplicate_rows, join_reasons, unit_error,
-                     unused_note)
+from .common import (check_overlaps, check_time_zones, duplicate_rows, join_reasons, reason_where,
+                     unit_error, unused_note)
 from .gaugerows import check_gauge_sampler
 from .ledger import Ledger
 from .samplerids import check_spellings, typo_notes
@@ -152,14 +152,15 @@ def read_precipitation(path, catalogue, flag_map=None):
         cond = np.full(n, np.nan)
     flag_text = tab.text("flags") if tab.has("flags") else np.full(n, "", object)
     flag_norm, flag_note = _flag_words(tab, flag_text, flag_map)
-    parts.append(np.where(flag_norm != "", "flags " + flag_norm.astype(str), ""))
+    flagged = flag_norm != ""
+    parts.append(reason_where(flagged, np.where(flagged, "flags " + flag_norm.astype(str), "")))
     ion_cols = _species_columns(tab, _species.PRECIP_IONS, "precipitation")
     conc = _concentrations(tab, ion_cols, ("amount_density",), parts, n,
                            zero_ok=(gauge == 0) | repeat,      # a dry week, a dropped repeat
                            negative_tol_mg_l=PRECIP_NEGATIVE_TOL_MG_L)
     check_shifted(tab, {ion_cols[sp]: ~np.isnan(v) | c for sp, (v, c, _, _) in conc.items()},
                   rows=~repeat)
-    parts.append(np.where(np.isnan(gauge), "gauge depth missing", ""))
+    parts.append(reason_where(np.isnan(gauge), "gauge depth missing"))
     known = set(PRECIP_REQUIRED + PRECIP_OPTIONAL) | set(ion_cols.values())
     unknown = tab.unknown_columns(known)
     has_chem = np.zeros(n, bool)
@@ -190,7 +191,7 @@ def read_precipitation(path, catalogue, flag_map=None):
     keep = ~empty
     neg_notes = np.full(n, "", object)
     for sp, (v, c, dl, _) in conc.items():
-        neg_notes = join_reasons([neg_notes, np.where(c & np.isnan(dl), f"{sp} negative, censored", "")])
+        neg_notes = join_reasons([neg_notes, reason_where(c & np.isnan(dl), f"{sp} negative, censored")])
     dvars = {
         "site": ("sample", sites[keep].astype(str)),
         "start": ("sample", start[keep]),
