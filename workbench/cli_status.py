@@ -49,15 +49,7 @@ def console_lines(lines, width=None) -> list[str]:
         line = str(line).rstrip()
         body = line.lstrip(" ")
         indent = line[:len(line) - len(body)]
-        # a number and its unit or word stay on one line: the space between them is
-        # held by a character textwrap does not break at (NUL), put back after
-        held = "\0" not in body
-        if held:
-            body = _NUMBER_WORD.sub("\\1\0", _hold_options(body))
-        wrapped = textwrap.wrap(body, width=width, initial_indent=indent,
-                                subsequent_indent=indent + "  ", break_long_words=False,
-                                break_on_hyphens=False) or [line]
-        out.extend(x.replace("\0", " ") if held else x for x in wrapped)
+        out.extend(_wrap(body, width, indent, indent + "  ", numbers=True) or [line])
     return out
 
 
@@ -84,11 +76,16 @@ def _hold_options(text: str) -> str:
     return _OPTION.sub(lambda m: m.group(0).replace(" ", "\0"), text)
 
 
-def _wrap(text: str, width: int, first: str, rest: str) -> list[str]:
+def _wrap(text: str, width: int, first: str, rest: str, numbers=False) -> list[str]:
     """`text` wrapped by textwrap to `width` under the indents `first` and `rest`,
-    at spaces only and never inside an option (:func:`_hold_options`)."""
+    at spaces only and never inside an option (:func:`_hold_options`) nor, with
+    `numbers`, between a number and the unit or word after it (:data:`_NUMBER_WORD`).
+    The held spaces are NUL, a character textwrap does not break at, put back after (a
+    text that holds a NUL already is wrapped as it is)."""
     held = "\0" not in text
     body = _hold_options(text) if held else text
+    if held and numbers:
+        body = _NUMBER_WORD.sub("\\1\0", body)
     lines = textwrap.wrap(body, width=width, initial_indent=first, subsequent_indent=rest,
                           break_long_words=False, break_on_hyphens=False)
     return [x.replace("\0", " ") for x in lines] if held else lines
