@@ -141,7 +141,7 @@ CONSTANT_MODULES = (
     "workbench/wet/seasalt.py", "workbench/wet/screening.py", "workbench/wet/unitslip.py",
     "workbench/io/metclock.py", "workbench/io/metchecks.py", "workbench/io/metlimits.py",
     "workbench/io/metgaps.py", "workbench/io/metgauge.py", "workbench/io/plausible.py",
-    "workbench/io/airslip.py", "workbench/io/samplegaps.py",
+    "workbench/io/airslip.py", "workbench/io/airgasbasis.py", "workbench/io/samplegaps.py",
     "workbench/drydep/options.py", "workbench/drydep/particle_fractions.py",
     "workbench/drydep/codeposition.py",
     "workbench/analysis/trends_stats.py", "workbench/analysis/exceedance.py",

@@ -147,6 +147,64 @@ def parse_header(text: str) -> Header:
     return Header(name, unit)
 
 
+#: An element word beside a species in a header's name: ``SO2-S``, ``S-SO2``, ``NH4-N``,
+#: ``NH3_N``, ``NO3 as N``, ``SO4(S)`` (the usual ways laboratories and networks write a
+#: concentration on the element basis; common practice).
+_NAME_BASIS = (re.compile(r"^(?P<sp>[A-Za-z0-9]+?)\s*(?:[-_ ]\s*(?:as[-_ ]?)?|\s*\(\s*(?:as\s+)?)"
+                          r"(?P<el>[SN])\s*\)?$"),
+               re.compile(r"^(?P<el>[SN])\s*[-_ ]\s*(?P<sp>[A-Za-z0-9]+)$"))
+#: An element word inside a unit: ``ug S/m3``, ``ugS/m3``, ``ug-S/m3``, ``mg N/L``,
+#: ``ug/m3 as S``, ``mg/L-N``, ``mg/L N`` (common practice).
+_UNIT_BASIS = (re.compile(r"^(?P<mass>[pnuµm]?g)\s*[-_ ]?\s*(?P<el>[SN])\s*/\s*(?P<vol>\S+)$"),
+               re.compile(r"^(?P<mass>[pnuµm]?g)\s*/\s*(?P<vol>[^\s_-]+?)\s*(?:[-_ ]\s*)?(?:as\s+)?"
+                          r"(?P<el>[SN])$"))
+
+
+def element_basis_header(name: str, unit: str | None) -> tuple[str, str, str] | None:
+    """``(species, element, header to write)`` of a header that writes a concentration
+    on the element basis (S or N) in a form the readers do not read: the element beside
+    the species in the name (``SO2-S [ug/m3]``, ``NH4-N [mg/L]``) or inside the unit
+    (``SO2 [ug S/m3]``, ``NH4 [mg/L as N]``); else None.
+
+    Such a header must not be read as the species' own mass (the amounts would be 2 x
+    too low for SO2 as S, 4.5 x for HNO3 as N), nor the element word dropped on a hint:
+    the readers refuse it with the header to write, ``SO2_as_S [ug/m3]``.
+
+    >>> element_basis_header("SO2-S", "ug/m3")
+    ('SO2', 'S', 'SO2_as_S [ug/m3]')
+    >>> element_basis_header("NH4", "mg N/L")
+    ('NH4', 'N', 'NH4_as_N [mg/L]')
+    >>> element_basis_header("SO2", "ug/m3") is None
+    True
+    """
+    name = str(name).strip()
+    sp = el = None
+    if re.fullmatch(r".+_as_[SN]", name):      # our own spelling: only its unit may hold one
+        name_pats = ()
+    else:
+        name_pats = _NAME_BASIS
+    for pat in name_pats:
+        m = pat.match(name)
+        if m:
+            sp, el = m.group("sp"), m.group("el")
+            break
+    plain = unit
+    if unit is not None and sp is None:
+        for pat in _UNIT_BASIS:
+            m = pat.match(str(unit).strip())
+            if m:
+                sp, el = name, m.group("el")
+                plain = f"{m.group('mass')}/{m.group('vol')}"
+                break
+    if sp is None:
+        return None
+    known = {k.lower(): k for k in _species.SPECIES}
+    sp = known.get(sp.lower())
+    if sp is None or getattr(_species.SPECIES[sp], "element", None) != el:
+        return None
+    return sp, el, f"{sp}_as_{el} [{plain}]" if plain else f"{sp}_as_{el} [unit]"
+
+
 #: Column names of our CSV inputs besides the species (docs/data_formats.md sections
 #: 2-4): a header naming one of them with its unit outside square brackets is refused
 #: by :func:`misplaced_unit` rather than left unused.

@@ -268,3 +268,47 @@ def test_unknown_land_use_names_the_class_that_covers_it(write, written, cls):
     p = write("s.toml", SITES.replace('land_use = "grass"', f'land_use = "{written}"'))
     msg = str(_raises(read_sites, p, match=f"got '{written}', expected one of "))
     assert msg.endswith(f"(did you mean '{cls}'? its class covers {LAND_USE[cls][0]})"), msg
+
+
+@pytest.mark.parametrize("header, written, factor", [
+    ("SO2 [ug S/m3]", "SO2_as_S [ug/m3]", "2"),
+    ("SO2-S [ug/m3]", "SO2_as_S [ug/m3]", "2"),
+    ("S-SO2 [ug/m3]", "SO2_as_S [ug/m3]", "2"),
+    ("SO2 [ugS/m3]", "SO2_as_S [ug/m3]", "2"),
+])
+def test_air_gas_element_word_in_header(write, cat, header, written, factor):
+    """A gas on the element basis written with the element beside the species or in the
+    unit: before, 'unknown species ... (did you mean 'SO2'?)' or 'not a concentration',
+    and writing the hint ('SO2 [ug/m3]') read the amounts of S 2 x too low in silence.
+    Factor: molar masses SO2 64.06, S 32.06 g/mol (periodictable, checked in
+    tests/io/test_element_basis_slips.py)."""
+    from tiny_inputs import AIR
+    p = write("a.csv", AIR.replace("SO2 [ug/m3]", header))
+    _raises(read_air, p, cat, match=(
+        f"a.csv, line 2, column '{header}': SO2 on the element basis (S) written in a form "
+        f"not read: got '{header}', expected '{written}' (the element basis goes in the name "
+        f"as '_as_S'); do not drop the S: under 'SO2 [ug/m3]' amounts of S are read "
+        f"{factor} x too low"))
+
+
+@pytest.mark.parametrize("header, written, factor", [
+    ("NH4-N [mg/L]", "NH4_as_N [mg/L]", "1.29"),
+    ("NH4 [mg N/L]", "NH4_as_N [mg/L]", "1.29"),
+    ("NH4 [mg/L as N]", "NH4_as_N [mg/L]", "1.29"),
+])
+def test_precipitation_ion_element_word_in_header(write, cat, header, written, factor):
+    """The same in a precipitation file (ammonium as N: 18.04 / 14.01 g/mol)."""
+    p = _precip(write, [ROW], head=HEAD.replace("NH4 [ueq/L]", header))
+    _raises(read_precipitation, p, cat, match=(
+        f"column '{header}': NH4 on the element basis (N) written in a form not read: got "
+        f"'{header}', expected '{written}'"))
+    _raises(read_precipitation, p, cat, match=f"amounts of N are read {factor} x too low")
+
+
+def test_precipitation_ion_element_word_in_an_amount_header(write, cat):
+    """In ueq/L the basis changes no number: the header to write is the ion's own."""
+    p = _precip(write, [ROW], head=HEAD.replace("NH4 [ueq/L]", "NH4-N [ueq/L]"))
+    _raises(read_precipitation, p, cat, match=(
+        "column 'NH4-N [ueq/L]': NH4 on the element basis (N) written in a form not read: "
+        "got 'NH4-N [ueq/L]', expected 'NH4 [ueq/L]' (an amount or a mixing ratio is the "
+        "same number on either basis: 1 mol NH4 holds 1 mol N)"))

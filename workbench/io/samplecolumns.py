@@ -14,7 +14,7 @@ import pandas as pd
 from .. import flags as _flags
 from .. import species as _species
 from ..errors import InputError, suggest
-from ..units import to_amount
+from ..units import concentration_kind, element_basis_header, to_amount
 from . import plausible as _plausible
 from .common import check_intervals, check_sites, join_reasons, reason_where, unit_error
 from .table import RawTable
@@ -34,6 +34,20 @@ _NOT_SPECIES = ("gauge_depth", "sample_depth", "sample_volume", "collector_area"
                 "conductivity")
 
 
+def _kind_or_none(unit: str) -> str | None:
+    """:func:`workbench.units.concentration_kind` of a unit text, None if it is none."""
+    try:
+        return concentration_kind(unit)
+    except ValueError:
+        return None
+
+
+def _basis_ratio(sp: str) -> float:
+    """Mass of the species per mass of its element in it [-] (SO2/S 2.0, HNO3/N 4.5)."""
+    info = _species.get(sp)
+    return info.molar_mass / (_species.element_molar_mass(info.element) * info.atoms)
+
+
 def _species_columns(tab: RawTable, allowed, what):
     """Map species -> column name, refusing two columns for one species, a species of
     the other file kind (``SO4`` in an air file) and a misspelt species (``S02``)."""
@@ -41,6 +55,24 @@ def _species_columns(tab: RawTable, allowed, what):
     choices = [f"{sp}{b}" for sp in allowed for b in ("", "_as_S", "_as_N")
                if not b or _species.get(sp).element == b[-1]]
     for name, h in tab.headers.items():
+        basis = element_basis_header(h.name, h.unit)
+        if basis is not None and basis[0] in allowed:
+            sp, el, write = basis
+            plain = write.split("[")[1].rstrip("]")
+            if _kind_or_none(plain) in ("amount_density", "mixing_ratio"):
+                raise InputError(f"{sp} on the element basis ({el}) written in a form not "
+                                 "read", file=tab.path, line=tab.header_line,
+                                 column=tab.raw_headers[name], value=tab.raw_headers[name],
+                                 expected=f"'{sp} [{plain}]' (an amount or a mixing ratio "
+                                 f"is the same number on either basis: 1 mol {sp} holds "
+                                 f"{_species.get(sp).atoms} mol {el})")
+            raise InputError(f"{sp} on the element basis ({el}) written in a form not read",
+                             file=tab.path, line=tab.header_line,
+                             column=tab.raw_headers[name], value=tab.raw_headers[name],
+                             expected=f"{write!r} (the element basis goes in the name as "
+                             f"'_as_{el}'); do not drop the {el}: under "
+                             f"'{sp} [{write.split('[')[1]}' amounts of {el} are read "
+                             f"{_basis_ratio(sp):.3g} x too low")
         if h.species is not None and h.species not in allowed:
             raise InputError(f"species not measured in {what} files", file=tab.path,
                              line=tab.header_line, column=tab.raw_headers[name], value=h.species,

@@ -85,7 +85,9 @@ def _air_slips(tab, ds, cols, keep) -> list[str]:
     the rows of each unit of a column with a unit switch apart (:func:`unit_segments`);
     rows of one sampler a unit factor off its other rows (:mod:`workbench.io.airstep`),
     or off the rest of its own record when it is the gas's only sampler in the file
-    (:mod:`workbench.io.airownstep`)."""
+    (:mod:`workbench.io.airownstep`); a gas on the other basis at one sampler, against
+    the file's other sites (:mod:`workbench.io.airgasbasis`)."""
+    from .airgasbasis import gas_basis_notes
     from .airslip import air_slip_notes
     from .airownstep import own_step_notes
     from .airstep import sampler_step_notes
@@ -94,6 +96,7 @@ def _air_slips(tab, ds, cols, keep) -> list[str]:
     for idx, units in unit_segments(tab, cols, keep):
         part = ds if idx is None else ds.isel(period=idx)
         notes += air_slip_notes(part, units, tab.path.name)
+        notes += gas_basis_notes(part, units, tab.path.name)
         typed = cells if idx is None else {sp: c[idx] for sp, c in cells.items()}
         notes += sampler_step_notes(part, units, tab.path.name, typed)
         notes += own_step_notes(part, units, tab.path.name, typed)

@@ -161,12 +161,15 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
                 continue
             k_all = int((fail & at).sum())
             best = None
+            fits = {}                                    # read_as -> mended
             idx = np.flatnonzero(failing)                # only the failing samples
             for trial in _concentration_trials(units, eqs):
                 scale = trial[0]
                 _, fail2, _ = _ib_fail(*_rescaled_sums(eqs, cations, anions, scale, idx),
                                        options)
                 mended = int((~fail2).sum())
+                if mended > SHARE * k:
+                    fits[trial[3]] = mended
                 if mended <= SHARE * k or (best is not None and mended < best[0]):
                     continue
                 # a tie (umol/L and ueq/L of a file of ions of one charge scale both
@@ -180,6 +183,13 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
                 mended, _, (_, subject, looks, read_as) = best
                 share = "all" if k_all == k else str(k)
                 noted_ib.add(site)
+                twin = _charge_twin(subject, looks, read_as, fits, units)
+                if twin is not None:
+                    looks, read_as = twin(mended, k)
+                    notes.append(f"{file_name}: {subject} at {site}: {k_all} of {n_eval} "
+                                 f"samples fail the ion balance, {share} with {side}; "
+                                 f"{looks} ({read_as}")
+                    continue
                 notes.append(f"{file_name}: {subject} at {site}: {k_all} of {n_eval} samples "
                              f"fail the ion balance, {share} with {side}; {looks} ({read_as}, "
                              f"{mended} of the {k} pass)")
@@ -223,6 +233,37 @@ def unit_slip_notes(samples: xr.Dataset, units: dict, file_name: str,
         notes += _depth_run_notes(samples, units, file_name, sample, gauge, ratio, ok,
                                   high, low, noted, options)
     return notes
+
+
+def _charge_twin(subject, looks, read_as, fits, units):
+    """For a note naming one ion column in umol/L or ueq/L, where the other of the two
+    mends more than :data:`SHARE` of the failing samples as well (an ion of charge 2 or
+    more: the two readings are a factor |z| apart, and the ion balance's band can take
+    both, e.g. Ca in ueq/L under a mg/L header, 50 x, read as umol/L, 25 x, still passes
+    when Ca is a small part of the cations): a function of the best reading's count
+    and of the failing samples' count giving the note's texts naming both, else None."""
+    pair = {"umol/L": "ueq/L", "ueq/L": "umol/L"}
+    if subject not in units:
+        return None
+    header, unit, _ = units[subject]
+    other = read_as.rsplit("read as ", 1)[-1]
+    twin = pair.get(other)
+    twin_as = f"{header!r}; read as {twin}"
+    if twin is None or twin_as not in fits:
+        return None
+    z = abs(_species.get(subject).charge)
+    if z < 2:                                   # one reading: the same number
+        return None
+    to_mg = {u: _factor(u, "mg/L", subject) for u in (other, twin)}
+
+    def texts(mended, k):
+        return (f"the values look like {other} or {twin} under a {unit} header",
+                f"{header!r}; read as {other}, {mended} of the {k} pass, as {twin} "
+                f"{fits[twin_as]}: for an ion of charge {z:g} the two readings are {z:g} x "
+                f"apart and the ion balance cannot tell them apart; ask the laboratory "
+                f"which it reports; to mg/L, {other} x {1 / to_mg[other]:.3g}, {twin} x "
+                f"{1 / to_mg[twin]:.3g})")
+    return texts
 
 
 def _concentration_trials(units: dict, eqs: dict):
