@@ -319,7 +319,13 @@ def uncertainty_lines(out, result) -> list[str]:
             "the columns ending _p05, _p50 and _p95 of budget.csv and summary.csv; what a "
             "range holds and leaves out: report.html, section Uncertainty")
     held = air_vd_state(result)
-    if held:
+    q = result.options.get("uncertainty") if hasattr(result, "options") else None
+    if held and getattr(getattr(q, "options", None), "vd_follows_air", False):
+        line += ("; under [dry] " + " and ".join(f"{k} = true" for k in held)
+                 + " the draws' velocities follow the drawn air by the grid method "
+                 "([uncertainty] vd_follows_air; docs/methods_uncertainty.md, \"Velocities "
+                 "that depend on the air\")")
+    elif held:
         line += ("; the draws keep the velocities of the measured air under [dry] "
                  + " and ".join(f"{k} = true" for k in held)
                  + " (docs/methods_uncertainty.md, \"Velocities that depend on the air\")")

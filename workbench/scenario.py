@@ -187,6 +187,15 @@ def validate(raw: dict, path=None, text: str = "", require_inputs: bool = True,
                                 value=list(objects["uncertainty"].pair_shift(key[11:])),
                                 expected="[0, 0] (the split as measured), or a fixed "
                                 "[dry] nh3_acid_ratio (nh3_acid_ratio_from_air = false)")
+        from .analysis.airvd import refusal as air_vd_refusal
+        why = air_vd_refusal(objects["dry"], objects.get("budget"), objects["uncertainty"])
+        if why is not None:
+            raise ScenarioError("vd_follows_air = true does not apply: " + why, file=path,
+                                line=_line_of(lines, "uncertainty", "vd_follows_air"),
+                                column="uncertainty.vd_follows_air", value=True,
+                                expected="false, or the [dry] and [budget] options it "
+                                "applies to (docs/methods_uncertainty.md, \"Velocities that "
+                                "depend on the air\")")
     site_over = raw.get("sites", {})
     for sid, table in site_over.items():
         if not isinstance(table, dict):
