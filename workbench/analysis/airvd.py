@@ -263,3 +263,32 @@ def grid_pieces(study, result, point, periods, sites, n_r, histories, nss, censo
                 mean[sp2] = np.where(h > 0, tot / np.where(h > 0, h, 1.0), 0.0)
             out[j][sp] = AirVdPieces(sp, c[order], np.stack(tables)[order], partners, mean)
     return out
+
+
+def air_only_draws(grid: AirVdPieces, air: dict) -> np.ndarray:
+    """(D, P, R) [mol m-2] the species' deposition of each draw with its air factors
+    alone (no Vd factor, no fill error): sum over the rows of the row's air factor times
+    its part at the draw's factor of the ratio, read off the grid.  What an engine run
+    on the draw's air gives (:func:`air_of_draw`; the check of
+    docs/methods_uncertainty.md)."""
+    a = air[grid.species]
+    return sum(np.einsum("dn,npr->dpr", b * a, tab) for b, tab in grid.basis(air))
+
+
+def air_of_draw(air, site_layer, factors: dict, d: int):
+    """The air Dataset of draw `d`: each row behind a site's dry pieces of SO2, HNO3 and
+    NH3 times its drawn factor (``factors``: species -> (D, n) of ``noise.air``), its
+    detection limit too (a value below detection is drawn as its substitute).  The
+    other rows stay as measured.  [the air's units]"""
+    out = {}
+    for sp in RATIO_SPECIES:
+        p = site_layer.dry.get(sp)
+        if p is None or sp not in air or p.air_row is None:
+            continue
+        own = np.flatnonzero([i[0] == sp for i in p.ident])
+        f = np.ones(air.sizes["period"])
+        f[p.air_row[own]] = factors[sp][d, own]
+        for name in (sp, f"{sp}_detection_limit"):
+            if name in air:
+                out[name] = air[name].copy(data=air[name].values * f)
+    return air.assign(out)
