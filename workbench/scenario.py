@@ -77,12 +77,17 @@ class Scenario:
         return {r: self.input_path(r) for r in SCHEMA["inputs"] if self.input_path(r) is not None}
 
     def resolved(self) -> dict:
-        """The scenario with every default and absolute paths, for provenance."""
+        """The scenario with every default and absolute paths, for provenance.
+
+        ``[uncertainty] vd_follows_air`` is written only when true: a run that does not
+        use it keeps the provenance (and report) bytes of the runs before it existed."""
         import dataclasses
         d = copy.deepcopy(self.data)
         d["inputs"] = {k: str(v) for k, v in self.input_paths().items()}
         for name, obj in self.options.items():
             d[name] = obj.to_dict() if hasattr(obj, "to_dict") else dataclasses.asdict(obj)
+        if d.get("uncertainty", {}).get("vd_follows_air") is False:
+            del d["uncertainty"]["vd_follows_air"]
         d.setdefault("dry", {})["fixed_velocity"] = dict(self.fixed_velocity)
         return d
 
