@@ -158,7 +158,9 @@ def dry_ratio_on_grid(pieces, vd_factor, air, vd_fill, basis, class_factor=None)
     """Draws of a dry component over the point, its velocity following the drawn air:
     (D, R, P) [1]; :func:`.drydraws.dry_ratio` with each row's part taken from the grid
     (`basis`, :meth:`AirVdPieces.basis`) instead of the point's."""
-    from .wetdraws import _safe_ratio
+    def _safe_ratio(num, den):        # as wetdraws._safe_ratio (no import: no cycle)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            return np.where(den != 0, num / np.where(den != 0, den, 1.0), 0.0)
     a = pieces.contrib
     n, n_p, n_r = a.shape
     phi = pieces.filled.reshape(n, -1)
