@@ -56,13 +56,14 @@ def _quiet(fn, *a, **k):
         return fn(*a, **k)
 
 
-def check(sc, draws, seed, n_check):
+def check(sc, site, draws, seed, n_check):
     study, args = study_and_args(sc)
     res = _quiet(study.run, *args)
     opt = U.UncertaintyOptions(draws=draws, seed=seed, vd_follows_air=True)
     lay = _quiet(U.linear_layer, res, study, "years", None, False, True)
-    ls, ds = lay.sites[0], lay.budget
-    site = str(ds["site"].values[0])
+    ds = lay.budget
+    k = [str(s) for s in ds["site"].values].index(site)       # the catalogue keeps all
+    ls = lay.sites[k]
     year0 = int(lay.period_year.min())
     noise = U.site_noise(ls, opt, draws, 1, ds.sizes["period"], (seed, site), year0,
                          (ds["period_start"].values, ds["period_end"].values))
@@ -78,7 +79,7 @@ def check(sc, draws, seed, n_check):
             air_d = airvd.air_of_draw(study.inputs.air, ls, noise.air, d)
             st = Study(dataclasses.replace(study.inputs, air=air_d), study.site_overrides)
             r_d = _quiet(st.run, *args)
-            got = _quiet(U.linear_layer, r_d, st, "years").sites[0].dry[sp].contrib.sum(0)
+            got = _quiet(U.linear_layer, r_d, st, "years").sites[k].dry[sp].contrib.sum(0)
             with np.errstate(invalid="ignore", divide="ignore"):
                 errs.append(np.abs(interp[d] / got - 1.0))
                 ferrs.append(np.abs(fixed[d] / got - 1.0))
@@ -132,7 +133,7 @@ def main(argv=None):
     airvd.GRID_FACTORS = tuple(float(x) for x in 2.0 ** np.linspace(-1, 1, args.points))
     with tempfile.TemporaryDirectory() as tmp:
         sc = scenario(Path(tmp), args.site, args.year)
-        out = check(sc, args.draws, args.seed, args.check)
+        out = check(sc, args.site, args.draws, args.seed, args.check) if args.check else {}
         if not args.no_cost:
             cost(sc, args.draws, args.seed, args.repeat)
     return out

@@ -56,6 +56,7 @@ def test_a_draw_on_the_grid_is_the_engine_on_its_air(ridge):
     opt = U.UncertaintyOptions(draws=8, seed=7, vd_follows_air=True)
     lay = _quiet(U.linear_layer, res, study, "years", None, False, True)
     ls, ds = lay.sites[0], lay.budget
+    assert str(ds["site"].values[0]) == SITE
     assert set(ls.air_vd) == {"SO2", "NH3"}
     noise = U.site_noise(ls, opt, opt.draws, 1, ds.sizes["period"], (opt.seed, SITE),
                          YEAR, (ds["period_start"].values, ds["period_end"].values))

@@ -42,7 +42,8 @@ AIR_VD_GRID_METHOD = ("the grid method: the velocities run on the air with NH3 s
                       "9 factors from 0.5 to 2, each sample's part read off them at the "
                       "draw's factor of the ratio")
 AIR_VD_GRID_ERROR = ("a draw's dry SO2 and NH3 within 0.1 % of the model run on the drawn "
-                     "air on the invented demo")
+                     "air, measured on the invented demo's ridge site in 2021, 10 draws, "
+                     "against up to 7.6 % with the velocities of the measured air")
 #: Totals of the budget (element_pathway), as in :func:`workbench.budget._totals`.
 TOTALS = ("S_wet", "S_dry", "S_total", "N_wet", "N_dry", "N_total")
 
