@@ -17,6 +17,7 @@ import workbench.drycomponents  # noqa: E402,F401  (declares period_shares; impo
 import workbench.drydep.core  # noqa: E402,F401  (declares the velocity steps)
 import workbench.stages  # noqa: E402,F401
 import workbench.analysis.range_shares  # noqa: E402,F401  (declares range_shares)
+import workbench.analysis.airvd  # noqa: E402,F401  (declares air_scaled)
 from workbench.budget import BudgetOptions  # noqa: E402
 from workbench.drydep import DryOptions  # noqa: E402
 from workbench.graph import STAGES, unread_fields  # noqa: E402

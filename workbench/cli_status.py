@@ -303,7 +303,8 @@ def uncertainty_lines(out, result) -> list[str]:
     quantiles and where the report says what a range holds; and, where ``[dry]
     so2_codeposition`` or ``nh3_acid_ratio_from_air`` was on in `result`, that the draws
     keep the velocities of the measured air (before, the console said nothing of the
-    draws at all); wrapped to :data:`NOTE_WIDTH` characters, as the run's notes."""
+    draws at all), or with ``[uncertainty] vd_follows_air`` that they follow the drawn
+    air by the grid method; wrapped to :data:`NOTE_WIDTH` characters, as the run's notes."""
     import json
     from pathlib import Path
     try:
@@ -319,7 +320,12 @@ def uncertainty_lines(out, result) -> list[str]:
             "the columns ending _p05, _p50 and _p95 of budget.csv and summary.csv; what a "
             "range holds and leaves out: report.html, section Uncertainty")
     held = air_vd_state(result)
-    if held:
+    if held and unc.get("vd_follows_air") is True:
+        line += ("; under [dry] " + " and ".join(f"{k} = true" for k in held)
+                 + " the draws' velocities follow the drawn air by the grid method "
+                 "([uncertainty] vd_follows_air; docs/methods_uncertainty.md, \"Velocities "
+                 "that depend on the air\")")
+    elif held:
         line += ("; the draws keep the velocities of the measured air under [dry] "
                  + " and ".join(f"{k} = true" for k in held)
                  + " (docs/methods_uncertainty.md, \"Velocities that depend on the air\")")

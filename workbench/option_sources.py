@@ -270,6 +270,9 @@ UNCERTAINTY = {
     "explain_ranges": ("our choice", "off: each drawn factor is drawn once more alone, about "
                        "the cost of the Monte Carlo again per factor; asked for when a "
                        "range's width is to be explained"),
+    "vd_follows_air": ("our choice", "off: outputs as before; on, 8 more runs of the "
+                       "velocities per run (docs/performance.md) for draws whose Vd(SO2) "
+                       "and Vd(NH3) follow the drawn NH3/SO2 and acid ratios"),
 }
 
 SENSITIVITY = {

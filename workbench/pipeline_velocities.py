@@ -21,11 +21,15 @@ class _StudyVelocities:
     """The velocity nodes of :class:`workbench.pipeline.Study` (its base class: they
     run in the study's graph, on its inputs, catalogue and receptors)."""
 
-    def _velocities_node(self, dry_options, overrides=None, receptors=None) -> Node:
+    def _velocities_node(self, dry_options, overrides=None, receptors=None,
+                         air: Node | None = None) -> Node:
         """Velocities of every site on `receptors`, or (None) of the wanted pairs: each
         group of sites asking for the same receptors (:func:`stages.pair_groups`) is
         computed on its own receptors, and the groups are put on the (site, receptor,
-        time) layout with the other pairs not computed (:func:`stages.wanted_pairs`)."""
+        time) layout with the other pairs not computed (:func:`stages.wanted_pairs`).
+        `air`: the node of the air the velocities read where a dry option takes an
+        hourly input from it (None: the study's own; the Monte Carlo's grid of scaled
+        air, :mod:`workbench.analysis.airvd`)."""
         if self.inputs.met is None:
             return _NONE
         met = self._input("met", self.inputs.met)
@@ -35,7 +39,7 @@ class _StudyVelocities:
         history = tuple(h for h in land_use_history(self.catalogue(overrides))  # changes
                         if first is None or np.datetime64(h[2][-1][0], "ns") > first)  # in the met
         if not history:
-            return self._velocities_on(dry_options, overrides, met, surf, receptors)
+            return self._velocities_on(dry_options, overrides, met, surf, receptors, air)
         # the site's own surface follows its declared land-use changes: the earlier
         # classes are computed as receptors of the site, then put on its own row hour by
         # hour (docs/data_formats.md, "A long record"; workbench/surfacehistory.py)
@@ -51,37 +55,41 @@ class _StudyVelocities:
         extra = tuple(dict.fromkeys(c for cs in earlier_classes(history).values() for c in cs
                                     if c not in shown))
         computed = self._velocities_on(dry_options, overrides, met, surf_h,
-                                       None if receptors is None else shown + extra)
+                                       None if receptors is None else shown + extra, air)
         return self._run("land_use_in_force", deps={"velocities": computed, "surfaces": surf},
                          params={"history": history, "receptors": shown,
                                  "wanted": receptors is None})
 
-    def _velocities_on(self, dry_options, overrides, met: Node, surf: Node, receptors) -> Node:
+    def _velocities_on(self, dry_options, overrides, met: Node, surf: Node, receptors,
+                       air: Node | None = None) -> Node:
         """:meth:`_velocities_node` on the surfaces of `surf`."""
         if receptors is not None:
-            return self._group_velocities(dry_options, overrides, met, surf, receptors)
+            return self._group_velocities(dry_options, overrides, met, surf, receptors, air)
         sites = tuple(str(s) for s in met.value["site"].values)
         groups = _stages.pair_groups(surf.value, sites)
         every = tuple(str(r) for r in surf.value["receptor"].values)
         if len(groups) == 1 and groups[0][1] == every:       # every site wants every pair
-            return self._group_velocities(dry_options, overrides, met, surf, None)
+            return self._group_velocities(dry_options, overrides, met, surf, None, air)
         parts = {}
         for i, (ids, recs) in enumerate(groups):
             sub = met if ids == sites else self._run("site_subset", deps={"data": met},
                                                      params={"sites": ids})
             parts[f"group{i:06d}"] = self._group_velocities(dry_options, overrides, sub,
-                                                            surf, recs)
+                                                            surf, recs, air)
         return self._run("wanted_pairs", deps=parts,
                          params={"sites": sites, "receptors": every})
 
     def _group_velocities(self, dry_options, overrides, met: Node, surf: Node,
-                          receptors) -> Node:
-        """The velocities stage on the sites of `met` and some receptors (None: all)."""
-        steps = self.graph.steps(f"{met.key}+{surf.key}", self.counts)
+                          receptors, air: Node | None = None) -> Node:
+        """The velocities stage on the sites of `met` and some receptors (None: all);
+        `air` another air than the study's (its key then names the steps' inputs too:
+        the steps read the hourly ratios made from it)."""
+        ident = f"{met.key}+{surf.key}" + ("" if air is None else f"+{air.key}")
+        steps = self.graph.steps(ident, self.counts)
         return self._run("velocities", {"dry": dry_options},
                          {"met": met, "surfaces": surf, "catalogue": self._catalogue_node(overrides),
-                          "steps": Node(f"input:steps:{met.key}+{surf.key}", steps),
-                          "air": self._input("air", self.inputs.air)},
+                          "steps": Node(f"input:steps:{ident}", steps),
+                          "air": self._input("air", self.inputs.air) if air is None else air},
                          {"receptors": None if receptors is None else tuple(receptors)})
 
     def _needs_model(self, fixed_velocity) -> bool:

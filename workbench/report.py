@@ -248,6 +248,9 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     from .scenario import _plain
     opts = {k: _plain(getattr(v, "options", v) if k == "uncertainty" else v)
             for k, v in result.options.items()}    # the draws' options, not their arrays
+    unc = opts.get("uncertainty")
+    if isinstance(unc, dict) and unc.get("vd_follows_air") is False:
+        del unc["vd_follows_air"]            # as provenance.json: written only when on
     parts.append("<h2>Options in force</h2><details><summary>Show the options of this run "
                  "(as in provenance.json)</summary><pre>"
                  + html.escape(json.dumps(opts, indent=1, default=str)) + "</pre></details>")

@@ -77,12 +77,17 @@ class Scenario:
         return {r: self.input_path(r) for r in SCHEMA["inputs"] if self.input_path(r) is not None}
 
     def resolved(self) -> dict:
-        """The scenario with every default and absolute paths, for provenance."""
+        """The scenario with every default and absolute paths, for provenance.
+
+        ``[uncertainty] vd_follows_air`` is written only when true: a run that does not
+        use it keeps the provenance (and report) bytes of the runs before it existed."""
         import dataclasses
         d = copy.deepcopy(self.data)
         d["inputs"] = {k: str(v) for k, v in self.input_paths().items()}
         for name, obj in self.options.items():
             d[name] = obj.to_dict() if hasattr(obj, "to_dict") else dataclasses.asdict(obj)
+        if d.get("uncertainty", {}).get("vd_follows_air") is False:
+            del d["uncertainty"]["vd_follows_air"]
         d.setdefault("dry", {})["fixed_velocity"] = dict(self.fixed_velocity)
         return d
 
@@ -187,6 +192,15 @@ def validate(raw: dict, path=None, text: str = "", require_inputs: bool = True,
                                 value=list(objects["uncertainty"].pair_shift(key[11:])),
                                 expected="[0, 0] (the split as measured), or a fixed "
                                 "[dry] nh3_acid_ratio (nh3_acid_ratio_from_air = false)")
+        from .analysis.airvd import refusal as air_vd_refusal
+        why = air_vd_refusal(objects["dry"], objects.get("budget"), objects["uncertainty"])
+        if why is not None:
+            raise ScenarioError("vd_follows_air = true does not apply: " + why, file=path,
+                                line=_line_of(lines, "uncertainty", "vd_follows_air"),
+                                column="uncertainty.vd_follows_air", value=True,
+                                expected="false, or the [dry] and [budget] options it "
+                                "applies to (docs/methods_uncertainty.md, \"Velocities that "
+                                "depend on the air\")")
     site_over = raw.get("sites", {})
     for sid, table in site_over.items():
         if not isinstance(table, dict):

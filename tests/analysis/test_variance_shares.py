@@ -198,7 +198,8 @@ def test_every_spread_of_the_options_is_a_factor():
     left out of the shares); the other fields set how the factors are drawn."""
     how = {"draws", "seed", "vd_shared_fraction", "systematic_errors", "vd_class_fraction",
            "lab_bias_filter_pack", "bulk_factor_ion_correlation",
-           "explain_ranges"}             # asks a run for the shares: no spread
+           "explain_ranges",             # asks a run for the shares: no spread
+           "vd_follows_air"}             # how the dry draws take Vd: no spread
     fields = {f.name for f in dataclasses.fields(UncertaintyOptions)}
     assert fields - how == set(FACTORS)
 

@@ -90,7 +90,7 @@ def _wet_layers(screened, wet, periods, wet_options, met, sites, ions):
 
 
 def linear_layer(result, study, which: str = "budget", overrides=None,
-                 pair_shift=False) -> LinearLayer:
+                 pair_shift=False, air_vd=False) -> LinearLayer:
     """The per-sample pieces of a run's budget (``which="budget"``) or of its years.
 
     Parameters
@@ -104,6 +104,11 @@ def linear_layer(result, study, which: str = "budget", overrides=None,
     pair_shift : bool
         Also the pair members' rows at the other member's Vd (``SiteLayer.pair_moved``),
         for a drawn gas/particle split (``[uncertainty] pair_shift_<pair>``).
+    air_vd : bool
+        Also the parts of the species whose Vd follows the air on a grid of the air
+        ratio (``SiteLayer.air_vd``, ``[uncertainty] vd_follows_air``,
+        :mod:`workbench.analysis.airvd`): a few runs of the velocities on scaled air,
+        stages of the study's graph.
 
     Returns
     -------
@@ -147,6 +152,12 @@ def linear_layer(result, study, which: str = "budget", overrides=None,
                         laboratory_ids(by_id.get(s)), laboratory_ids(by_id.get(s), air=True),
                         bulk[k], piece_betas(raw, wet_pieces[k]) if bulk[k] else None)
               for k, s in enumerate(sites)]
+    if air_vd and rows is not None:
+        from .airvd import grid_pieces
+        for lay, grid in zip(layers, grid_pieces(
+                study, result, dry, periods, sites, ds.sizes["receptor"], histories,
+                bud_opt.sulfate_basis == "nss", bud_opt.air_censored, overrides)):
+            lay.air_vd = grid
     if pair_shift:
         from .pairlayer import moved_pieces
         # under the bidirectional NH3 exchange, pNH4 moved into NH3 takes its Vd

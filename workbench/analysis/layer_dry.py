@@ -139,6 +139,7 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False, censo
             continue
         _, c_fill = rows["vd_cum"][sp]          # the Vd of `sp` in every part
         per_row, si, filled, cens, member, sampler, start, end = ([] for _ in range(8))
+        air_row = []
         ss = [] if (nss and sp == "pSO4" and "pNa" in air) else None
         ss_cens = []
         samplers = air["sampler_id"].values.astype(str)
@@ -163,6 +164,7 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False, censo
             # both members'), its sampler and start
             member.append(np.full(len(a), name if isinstance(name, str) else name[-1]))
             sampler.append(samplers[r["air_row"]])
+            air_row.append(np.asarray(r["air_row"]))
             start.append(np.asarray(r["start"]))
             end.append(np.asarray(r["end"]))
         exch = (_exchange_rows(rows, parts, axes, times, len(row_sites))
@@ -172,6 +174,7 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False, censo
         ss_cens = np.concatenate(ss_cens) if ss is not None else None
         filled, cens = np.concatenate(filled), np.concatenate(cens)
         member, sampler = np.concatenate(member), np.concatenate(sampler)
+        air_row = np.concatenate(air_row)
         start = np.concatenate(start).astype("datetime64[ns]")
         end = np.concatenate(end).astype("datetime64[ns]")
         for k, s in enumerate(sites):
@@ -192,7 +195,8 @@ def _dry_layers(rows, periods, sites, n_r, air, histories=None, nss=False, censo
                                    None if ss is None or not ss_cens[sel].any()
                                    else ss_cens[sel],
                                    None if exch is None else exch[0][sel][:, :, :n_r],
-                                   None if exch is None else exch[1][sel][:, :, :n_r])
+                                   None if exch is None else exch[1][sel][:, :, :n_r],
+                                   air_row[sel])
     return out
 
 

@@ -61,6 +61,9 @@ class DryPieces:
     #: (or an exchange the rows cannot be matched to).
     exchange: np.ndarray | None = None
     emission: np.ndarray | None = None
+    #: (n,) int, each row's row in the air Dataset (its concentration; the velocities
+    #: that follow the drawn air, :mod:`workbench.analysis.airvd`). None: not kept.
+    air_row: np.ndarray | None = None
 
 
 @dataclass
@@ -110,6 +113,10 @@ class SiteLayer:
     #: pair -> species moved into -> DryPieces of the other member at its Vd, for a
     #: drawn gas/particle split (:func:`workbench.analysis.pairlayer.moved_pieces`)
     pair_moved: dict = field(default_factory=dict)
+    #: species -> :class:`workbench.analysis.airvd.AirVdPieces`: its rows' parts on the
+    #: grid of the air ratio its Vd takes (``[uncertainty] vd_follows_air``); empty
+    #: otherwise
+    air_vd: dict = field(default_factory=dict)
 
 
 @dataclass

@@ -56,6 +56,10 @@ class BudgetQuantiles:
     #: The pairs whose gas/particle split was drawn at some site (``pair_shift_<pair>``
     #: not [0, 0], both members measured, ``pair_split = "measured"``).
     pair_shift_drawn: tuple = ()
+    #: The ``[dry]`` options whose velocity the draws followed on the grid of the air
+    #: ratio (``vd_follows_air``, :mod:`.airvd`): ``so2_codeposition``,
+    #: ``nh3_acid_ratio_from_air``.
+    air_vd_followed: tuple = ()
 
 
 def _span_draws(ds, comp, tot):
@@ -131,12 +135,17 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
     if refused is not None:
         raise ValueError(f"UncertaintyOptions.{refused[0]}: {refused[1]}; use a fixed "
                          "nh3_acid_ratio or leave the split as measured ([0, 0])")
+    from .airvd import TARGETS, refusal
+    why = refusal(result.options.get("dry"), result.options.get("budget"), options)
+    if why is not None:
+        raise ValueError(f"UncertaintyOptions.vd_follows_air = true: {why}")
+    follow = bool(options.vd_follows_air)
     if layers is None:
         shift = options.shifts_pairs          # the rows a drawn gas/particle split moves
         layers = ({} if years_only else
-                  {"budget": linear_layer(result, study, "budget", overrides, shift)})
+                  {"budget": linear_layer(result, study, "budget", overrides, shift, follow)})
         layers["years"] = (layers["budget"] if result.years is result.budget and not years_only
-                           else linear_layer(result, study, "years", overrides, shift))
+                           else linear_layer(result, study, "years", overrides, shift, follow))
     years = np.concatenate([lay.period_year for lay in layers.values()])
     year0, n_years = int(years.min()), int(years.max() - years.min() + 1)
     q = np.asarray(QUANTILES)
@@ -198,8 +207,9 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
                                {"units": "eq ha-1 yr-1"}) for i, e in enumerate("sn")},
         coords={"draw": np.arange(options.draws), "site": yds["site"].values,
                 "receptor": yds["receptor"].values, "period": per})
+    followed = tuple(k for k in TARGETS if follow and getattr(result.options.get("dry"), k, False))
     return BudgetQuantiles(out.get("budget"), out["years"], span, options, draws, bulk_drawn,
-                           gamma_drawn, tuple(sorted(shift_drawn)))
+                           gamma_drawn, tuple(sorted(shift_drawn)), followed)
 
 
 def _annual_draws(tot, span_t, annual_factor):

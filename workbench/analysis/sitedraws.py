@@ -104,7 +104,15 @@ def dry_draws(layer: LinearLayer, site: int, noise: SiteNoise, sp: str, air: dic
     pc = ls.dry[sp]
     cf = ({c: f[:, yi, k] for c, f in noise.vd_class.items()}
           if noise.vd_class and pc.klass is not None else None)
-    out = pt[None] * dry_ratio(pc, noise.vd[:, yi, k], air[sp], noise.vd_fill[sp], cf)
+    grid = getattr(ls, "air_vd", {}).get(sp)
+    if grid is not None:
+        # its Vd follows the drawn air ([uncertainty] vd_follows_air): each row's part
+        # from the grid of the air ratio at the draw's factor of the ratio
+        from .airvd import dry_ratio_on_grid
+        out = pt[None] * dry_ratio_on_grid(pc, noise.vd[:, yi, k], air[sp],
+                                           noise.vd_fill[sp], grid.basis(air), cf)
+    else:
+        out = pt[None] * dry_ratio(pc, noise.vd[:, yi, k], air[sp], noise.vd_fill[sp], cf)
     drawn = same = None
     if (sp == "NH3" and getattr(pc, "exchange", None) is not None
             and ds.attrs.get("nh3_figure") == "net"):

@@ -164,8 +164,9 @@ def with_uncertainty(result, study, scenario):
     new.__dict__["derived"] = add_quantiles(result.derived, q).assign(
         range_note=summary_range_notes(result.budget))
     given = opt.to_dict()
-    if not given["explain_ranges"]:      # budget.nc as before the option existed
-        del given["explain_ranges"]
+    for name in ("explain_ranges", "vd_follows_air"):
+        if not given[name]:                  # budget.nc as before the option existed
+            del given[name]
     new.budget.attrs["uncertainty"] = json.dumps(given, sort_keys=True)
     if opt.explain_ranges and opt.draws >= 2:       # range_shares.csv, the report's table
         from .range_shares import range_shares

@@ -188,6 +188,16 @@ class UncertaintyOptions:
         False (default) writes nothing more.  Needs ``draws`` >= 2 (it explains their
         range; with fewer a run note says so).  The draws and the quantiles are the same
         either way.
+    vd_follows_air : bool
+        Under ``[dry] so2_codeposition`` and ``nh3_acid_ratio_from_air`` each draw's
+        Vd(SO2) and Vd(NH3) follow the NH3/SO2 and acid ratios of its drawn air: the
+        velocities are run on the air with NH3 scaled by 9 factors from 0.5 to 2 (stages
+        of the graph) and each sample's part is interpolated at the draw's factor of
+        the ratio (:mod:`workbench.analysis.airvd`; the error against engine runs on
+        drawn air in docs/methods_uncertainty.md).  False (default, our choice: the
+        grid costs 8 runs of the velocities) keeps the velocities of the measured air,
+        and the report names them as not in the range.  Refused where it does not
+        apply (:func:`workbench.analysis.airvd.refusal`).
     """
 
     draws: int = 0
@@ -213,6 +223,7 @@ class UncertaintyOptions:
     pair_shift_nitrate: tuple = (0.0, 0.0)
     pair_shift_ammonium: tuple = (0.0, 0.0)
     explain_ranges: bool = False
+    vd_follows_air: bool = False
 
     def __post_init__(self):
         if self.systematic_errors not in SYSTEMATIC_ERRORS:
@@ -245,6 +256,9 @@ class UncertaintyOptions:
                                             getattr(self, f"pair_shift_{pair}")))
         if not isinstance(self.explain_ranges, bool):
             raise ValueError(f"UncertaintyOptions.explain_ranges = {self.explain_ranges!r} "
+                             "must be true or false")
+        if not isinstance(self.vd_follows_air, bool):
+            raise ValueError(f"UncertaintyOptions.vd_follows_air = {self.vd_follows_air!r} "
                              "must be true or false")
         if not isinstance(self.lab_bias_filter_pack, bool):
             raise ValueError(f"UncertaintyOptions.lab_bias_filter_pack = "

@@ -232,7 +232,7 @@ def variance_shares(result, study, options: UncertaintyOptions, which: str = "sp
     shift = options.shifts_pairs
     if layer is None:
         layer = linear_layer(result, study, "years" if which == "span" else "budget",
-                             overrides, shift)
+                             overrides, shift, options.vd_follows_air)
     ds = layer.budget
     year0 = int(layer.period_year.min())
     n_years = int(layer.period_year.max()) - year0 + 1
