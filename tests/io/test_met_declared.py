@@ -138,8 +138,8 @@ def test_differenced_counter_is_the_hourly_record(tmp_path, demo_met, start_h, k
         first = int(note.split("differenced into each hour's amount, ")[1].split(" ")[0])
         diffed = int(note.split("): ")[1].split(" hours differenced")[0].replace(",", ""))
         assert first + diffed + head == n and abs(first - n / 24) <= 1
-        assert note.endswith("taken as read" if not head else "1 hours whose hour before is "
-                             "missing")
+        assert note.endswith("taken as read" if not head else "taken as read; masked: 1 hour "
+                             "whose hour before is missing")
 
 
 def test_a_gap_and_a_manual_reset_are_masked_not_guessed(tmp_path, demo_met):
@@ -167,8 +167,8 @@ def test_a_gap_and_a_manual_reset_are_masked_not_guessed(tmp_path, demo_met):
     utc = pd.Timestamp(f"{day}T12:00") - pd.Timedelta(hours=cat["farm"].utc_offset_h)
     assert np.isnan(pr.sel(time=utc).item())
     (note,) = [n for n in led.notes if "daily counter" in n]
-    assert note.endswith("; masked: 1 hours falling from the hour before elsewhere than after "
-                         "the restart, 1 hours whose hour before is missing")
+    assert note.endswith("; masked: 1 hour falling from the hour before elsewhere than after "
+                         "the restart, 1 hour whose hour before is missing")
 
 
 def test_a_counter_not_declared_gets_a_note_with_counts(tmp_path, demo_met):
@@ -241,3 +241,17 @@ def test_suspected_counter_note_reaches_provenance(tmp_path):
                            "counter restarted each day at 00:00?")
     assert 'met_precipitation = "daily_counter"' in note
     assert html.escape(note) in (tmp_path / "out" / "report.html").read_text()
+
+
+def test_a_restart_hour_against_the_data_is_named(tmp_path, demo_met):
+    # restarted at 00:00, declared at 09:00: each day's fall at 01:00 is masked, the
+    # note names the hour the falls come at
+    met = _daily_counter(demo_met[demo_met["site"] == "farm"].reset_index(drop=True))
+    cat = _sites(tmp_path, farm='met_precipitation = "daily_counter"\n'
+                                "met_counter_restart_hour = 9")
+    _, led = read_met(_write(tmp_path / "met.csv", met), cat)
+    (note,) = [n for n in led.notes if "daily counter" in n]
+    assert "(met_precipitation in the site catalogue; met_counter_restart_hour; its falls " \
+           "come at the hour ending 01:00 (100% of " in note and "check the hour" in note
+    falls = led.table["reason"].str.contains("not the first after its restart", regex=False)
+    assert int(falls.sum()) > 20

@@ -216,11 +216,10 @@ def difference_daily_counter(pr, codes, t, offset_h, names, declared, given_hour
                     and int(top[s]) != (r + 1) % 24):
                 src += (f"; its falls come at the hour ending {int(top[s]):02d}:00 "
                         f"({float(share[s]):.0%} of {int(falls[s]):,}): check the hour")
-        masked = ""
-        if n_fall[s] or n_orphan[s]:
-            masked = (f"; masked: {int(n_fall[s]):,} hours falling from the hour before "
-                      f"elsewhere than after the restart, {int(n_orphan[s]):,} hours whose hour "
-                      "before is missing")
+        masked = [f"{k:,} hour{'s' * (k != 1)} {words}" for k, words in (
+            (int(n_fall[s]), "falling from the hour before elsewhere than after the restart"),
+            (int(n_orphan[s]), "whose hour before is missing")) if k]
+        masked = "; masked: " + ", ".join(masked) if masked else ""
         notes.append(f"met {name}: precipitation read as a daily counter restarted at "
                      f"{r:02d}:00, the file's clock (met_precipitation in the site "
                      f"catalogue; {src}): {int(n_diff[s]):,} hours differenced into each "
