@@ -255,3 +255,41 @@ def test_a_restart_hour_against_the_data_is_named(tmp_path, demo_met):
            "come at the hour ending 01:00 (100% of " in note and "check the hour" in note
     falls = led.table["reason"].str.contains("not the first after its restart", regex=False)
     assert int(falls.sum()) > 20
+
+
+def test_the_line_reader_applies_the_keys_too(tmp_path, demo_met, monkeypatch):
+    """The line-by-line reader (files the chunked one leaves to it) gives the same."""
+    import workbench.io.metfast as metfast
+    met = _daily_counter(demo_met[demo_met["site"] == "farm"].reset_index(drop=True))
+    met[WIND] = met[WIND] / KNOT_MS
+    cat = _sites(tmp_path, farm='met_wind_unit = "knots"\nmet_precipitation = "daily_counter"')
+    p = _write(tmp_path / "met.csv", met)
+    fast, fast_led = read_met(p, cat)
+    monkeypatch.setattr(metfast, "read_met_csv_fast", lambda path, catalogue: None)
+    slow, slow_led = read_met(p, cat)
+    for name in ("wind_speed", "precipitation"):
+        assert np.array_equal(fast[name].values, slow[name].values, equal_nan=True)
+    assert [n for n in fast_led.notes if "met_" in n] == [n for n in slow_led.notes
+                                                          if "met_" in n]
+    assert len([n for n in slow_led.notes if "met_" in n]) == 2
+
+
+def test_netcdf_met_applies_the_keys_too(tmp_path, demo_met):
+    """A NetCDF met file (dims site, time) read with the keys: the m/s and hourly record."""
+    met = demo_met[demo_met["site"] == "farm"].reset_index(drop=True)
+    clean, _ = read_met(_write(tmp_path / "clean.csv", met), read_sites(DEMO / "sites.toml"))
+    nc = clean.drop_vars("row_present").copy()
+    nc["wind_speed"] = nc["wind_speed"] / KNOT_MS
+    nc["wind_speed"].attrs["units"] = "m s-1"                  # the header's slip
+    local_day = (nc["time"] + np.timedelta64(60, "m") - np.timedelta64(1, "m")).dt.floor("D")
+    nc["precipitation"] = nc["precipitation"].groupby(local_day).cumsum().round(1)
+    nc["precipitation"].attrs["units"] = "mm"
+    nc.to_netcdf(tmp_path / "met.nc", engine="scipy")
+    cat = _sites(tmp_path, farm='met_wind_unit = "knots"\nmet_precipitation = "daily_counter"')
+    back, led = read_met(tmp_path / "met.nc", cat)
+    np.testing.assert_allclose(back["wind_speed"].values, clean["wind_speed"].values,
+                               rtol=1e-12)
+    got, want = back["precipitation"].values, clean["precipitation"].values
+    assert np.isnan(got[0, 0]) or got[0, 0] == want[0, 0]
+    assert np.array_equal(got[:, 1:], want[:, 1:], equal_nan=True)
+    assert len([n for n in led.notes if "met_" in n]) == 2
