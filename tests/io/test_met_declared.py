@@ -293,3 +293,26 @@ def test_netcdf_met_applies_the_keys_too(tmp_path, demo_met):
     assert np.isnan(got[0, 0]) or got[0, 0] == want[0, 0]
     assert np.array_equal(got[:, 1:], want[:, 1:], equal_nan=True)
     assert len([n for n in led.notes if "met_" in n]) == 2
+
+
+def test_a_counter_that_never_falls_has_no_restart_to_find():
+    """Without met_counter_restart_hour the restart hour comes from the falls: a record of
+    zeros reads as 0, one that rises and never falls is masked (its hour unknown)."""
+    from workbench.io.metcounter import daily_reset_sites
+    from workbench.io.metdeclared import difference_daily_counter
+    t = np.datetime64("2020-01-01T01:00") + np.arange(72) * np.timedelta64(1, "h")
+    t = np.r_[t, t]
+    codes = np.repeat([0, 1], 72)
+    pr = np.r_[np.zeros(72), np.round(np.arange(72) * 0.1, 1)]
+    found = daily_reset_sites(pr, codes, 2, t, np.zeros(2))[1:]
+    got, why, notes = difference_daily_counter(pr, codes, t, np.zeros(2), ["dry", "rising"],
+                                               np.ones(2, bool), np.full(2, -1), found)
+    assert (got[:72] == 0).all() and np.isnan(got[72:]).all()
+    assert (why[:72] == "").all() and (why[72:] != "").all()
+    assert "its restart hour cannot be told from the data, give met_counter_restart_hour" \
+        in why[72]
+    assert notes == ["met dry: precipitation declared a daily counter (met_precipitation in "
+                     "the site catalogue), never above 0 in its record: 72 hours read as 0 mm",
+                     "met rising: precipitation declared a daily counter, 72 hours masked: no "
+                     "restart in its record, give met_counter_restart_hour in the site "
+                     "catalogue"]
