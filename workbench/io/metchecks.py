@@ -10,9 +10,12 @@ the missing-value codes (:data:`RANGES`, :func:`missing_codes`,
 :func:`solar_elevation_deg`...) in :mod:`workbench.io.metlimits`; the notes on missing
 hours (:func:`describe_gaps`, :func:`clock_forward_hint`) in
 :mod:`workbench.io.metgaps`; the gauge comparison (:func:`gauge_comparison`,
-:func:`gauge_slip_notes`) in :mod:`workbench.io.metgauge`.  The checks of the rows
-(:func:`run_row_checks`, looked up here by the readers) are here; this module
-re-exports the others, so that ``workbench.io.metchecks.<name>`` keeps working.
+:func:`gauge_slip_notes`) in :mod:`workbench.io.metgauge`; what a site's catalogue entry
+says of how its file is written (``met_wind_unit``, ``met_precipitation``), applied
+first, and the notes of the slips only suspected in :mod:`workbench.io.metdeclared`.
+The checks of the rows (:func:`run_row_checks`, looked up here by the readers) are here;
+this module re-exports the others, so that ``workbench.io.metchecks.<name>`` keeps
+working.
 """
 from __future__ import annotations
 
@@ -25,7 +28,8 @@ from .common import join_reasons
 from .metcolumns import column_checks
 from .metvars import MET_VARIABLES
 from .metcounter import daily_reset_sites, reset_reason
-from .metdeclared import counter_sites, declared_wind, difference_daily_counter, suspected_notes
+from .metdeclared import (counter_sites, declared_wind, difference_daily_counter,
+                          suspected_notes)
 from .metwind import wind_unit_findings
 
 #: The variables every met row needs: an empty cell of one flags its row.

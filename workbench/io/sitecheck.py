@@ -11,8 +11,8 @@ from ..landuse import LAND_USE, class_hint
 from .critical_loads import check_critical_loads
 from .sitechanges import check_changes
 from .sitegeometry import ELEVATION_RANGE, _geometry, _mast_history_geometry
-from .siterecord import (COLLECTORS, MET_PRECIPITATION_FORMS, MET_WIND_UNITS, NH3_GAMMA_HINT, PARTICLE_SPECIES, SITE_KEYS, Site,
-                         USTAR_TRANSFERS, _monthly_lai)
+from .siterecord import (COLLECTORS, MET_PRECIPITATION_FORMS, MET_WIND_UNITS, NH3_GAMMA_HINT,
+                         PARTICLE_SPECIES, SITE_KEYS, Site, USTAR_TRANSFERS, _monthly_lai)
 
 
 def _type_check(t, err):
@@ -199,7 +199,8 @@ def _met_writing(t, err):
     if form not in MET_PRECIPITATION_FORMS:
         raise err("unknown form in met_precipitation", "met_precipitation", form,
                   '"hourly" (each hour\'s amount, the default) or "daily_counter" (the day\'s '
-                  "running total, restarted each day)" + suggest(str(form), MET_PRECIPITATION_FORMS))
+                  "running total, restarted each day)"
+                  + suggest(str(form), MET_PRECIPITATION_FORMS))
     hour = t.get("met_counter_restart_hour")
     if hour is not None:
         if not 0 <= hour <= 23:
