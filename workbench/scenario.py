@@ -210,7 +210,11 @@ def validate(raw: dict, path=None, text: str = "", require_inputs: bool = True,
             if key not in SITE_OVERRIDES:
                 where = ("; critical loads are set in the site catalogue only, in the "
                          f"site's [site.critical_loads] tables (sites.toml)"
-                         if key == "critical_loads" else "")
+                         if key == "critical_loads" else
+                         "; how a site's met file is written is said in the site catalogue "
+                         "only (sites.toml), read with the file before any run"
+                         if key in ("met_wind_unit", "met_precipitation",
+                                    "met_counter_restart_hour") else "")
                 raise ScenarioError("unknown key", file=path,
                                     line=_line_of(lines, f"sites.{sid}", key),
                                     column=f"sites.{sid}.{key}", expected="one of "

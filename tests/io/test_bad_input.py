@@ -241,6 +241,50 @@ def test_blanks_at_cell_edges_are_stripped_and_inner_ones_kept(tmp_path):
     assert list(RawTable.read(p).numbers("value")) == [1.5, 2.0]
 
 
+@pytest.mark.parametrize("lines, match", [
+    ('met_wind_unit = "knot"',
+     "s.toml, line 12, column 'met_wind_unit': unknown wind unit in met_wind_unit: got 'knot', "
+     'expected one of "knots", "mph", "km/h" (the unit the met file\'s wind speed is written '
+     "in where its header says m/s) (did you mean 'knots'?)"),
+    ('met_precipitation = "counter"',
+     "s.toml, line 12, column 'met_precipitation': unknown form in met_precipitation: got "
+     '\'counter\', expected "hourly" (each hour\'s amount, the default) or "daily_counter" '
+     "(the day's running total, restarted each day) (did you mean 'daily_counter'?)"),
+    ('met_precipitation = "daily_counter"\nmet_counter_restart_hour = 24',
+     "s.toml, line 13, column 'met_counter_restart_hour': restart hour out of range: got '24', "
+     "expected a whole hour of the day from 0 to 23 (the file's clock: 0 for a counter "
+     "restarted at midnight, 9 at 09:00)"),
+    ("met_counter_restart_hour = 9",
+     "s.toml, line 12, column 'met_counter_restart_hour': met_counter_restart_hour without a "
+     "daily counter: got '9', expected met_precipitation = \"daily_counter\" beside it (the "
+     "hour is that counter's restart)"),
+    ('met_precipitation = "daily_counter"\nmet_counter_restart_hour = 9.0',
+     "s.toml, line 13, column 'met_counter_restart_hour': wrong type: got '9.0', expected a "
+     "whole number (hour of the day (0-23, the file's clock) at which a daily counter "
+     "restarts (met_precipitation = 'daily_counter'); default: the hour its falls come at)"),
+])
+def test_sites_met_writing_keys(write, lines, match):
+    """How a site's met file is written (met_wind_unit, met_precipitation,
+    met_counter_restart_hour): one located message per wrong value."""
+    p = write("s.toml", SITES.replace("utc_offset_h = 1", "utc_offset_h = 1\n" + lines, 1))
+    _raises(read_sites, p, match=match)
+
+
+def test_scenario_met_writing_key_points_to_sites_toml(write):
+    """The keys describe the file, read before any run: not a scenario override."""
+    from workbench.errors import WorkbenchError
+    from workbench.scenario import load_scenario
+    write("sites.toml", SITES)
+    s = write("scenario.toml", '[inputs]\nsites = "sites.toml"\n\n[sites.alpha]\n'
+              'met_wind_unit = "knots"\n')
+    with pytest.raises(WorkbenchError) as exc:
+        load_scenario(s)
+    msg = str(exc.value)
+    assert "line 5, column 'sites.alpha.met_wind_unit': unknown key" in msg, msg
+    assert msg.endswith("; how a site's met file is written is said in the site catalogue "
+                        "only (sites.toml), read with the file before any run"), msg
+
+
 @pytest.mark.parametrize("value, hint", [
     ('"52.0"', "; write the number without quotes"),
     ("\"52°30'N\"", "; write decimal degrees (52°30' is 52.5)"),

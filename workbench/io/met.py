@@ -217,8 +217,9 @@ def _assemble(values, sites, t, lines, path, catalogue, raw_units, empty_reason)
     empty = np.ones(n, bool)
     for v in values.values():
         empty &= np.isnan(v)
+    site_notes = []
     reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, raw_units,
-                                               missing="no value")
+                                               missing="no value", notes=site_notes)
     reasons = np.where(empty, join_reasons([reasons, np.full(n, empty_reason, object)]), reasons)
     ledger = Ledger.for_many_rows(path, lines, sites, reasons, empty)
     keep = ~empty
@@ -231,6 +232,7 @@ def _assemble(values, sites, t, lines, path, catalogue, raw_units, empty_reason)
     si = order[si]
     ds = site_time_dataset(values, keep, site_ids, si, t[keep], path)
     ledger.notes.extend(metchecks.describe_gaps(ds))
+    ledger.notes.extend(site_notes)
     return ds, ledger
 
 
@@ -406,7 +408,7 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
     store = MetStore(names, n_s, n_grid)
     reason_codes = np.empty(n_s * n_t, np.int32)
     rejected = np.empty(n_s * n_t, bool)
-    texts, gaps = {}, {}
+    texts, gaps, site_notes = {}, {}, []
     kept_sites = np.zeros(n_s, bool)
     lo_t, hi_t = n_grid, -1
     step = group_sites or max(1, NETCDF_GROUP_RECORDS // n_t)
@@ -425,7 +427,7 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
         for v in values.values():
             empty &= np.isnan(v)
         reasons, values = metchecks.run_row_checks(values, sites, t, catalogue, raw_units,
-                                                   missing="no value")
+                                                   missing="no value", notes=site_notes)
         reasons = np.asarray(reasons, dtype=object)
         if empty.any():                     # joined on the empty records only
             reasons[empty] = join_reasons([reasons[empty], np.full(
@@ -476,6 +478,7 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
                        time_slice=slice(lo_t, hi_t + 1))
     ds = load_small(ds, store)
     ledger.notes.extend(gaps[s] for s in site_ids)
+    ledger.notes.extend(site_notes)
     add_clock_notes(ds, ledger, catalogue, path, NETCDF_GROUP_RECORDS)
     if squeezed:
         ledger.notes.append(f"{path.name}: single-level dimension dropped from "

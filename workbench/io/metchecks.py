@@ -10,9 +10,12 @@ the missing-value codes (:data:`RANGES`, :func:`missing_codes`,
 :func:`solar_elevation_deg`...) in :mod:`workbench.io.metlimits`; the notes on missing
 hours (:func:`describe_gaps`, :func:`clock_forward_hint`) in
 :mod:`workbench.io.metgaps`; the gauge comparison (:func:`gauge_comparison`,
-:func:`gauge_slip_notes`) in :mod:`workbench.io.metgauge`.  The checks of the rows
-(:func:`run_row_checks`, looked up here by the readers) are here; this module
-re-exports the others, so that ``workbench.io.metchecks.<name>`` keeps working.
+:func:`gauge_slip_notes`) in :mod:`workbench.io.metgauge`; what a site's catalogue entry
+says of how its file is written (``met_wind_unit``, ``met_precipitation``), applied
+first, and the notes of the slips only suspected in :mod:`workbench.io.metdeclared`.
+The checks of the rows (:func:`run_row_checks`, looked up here by the readers) are here;
+this module re-exports the others, so that ``workbench.io.metchecks.<name>`` keeps
+working.
 """
 from __future__ import annotations
 
@@ -25,6 +28,8 @@ from .common import join_reasons
 from .metcolumns import column_checks
 from .metvars import MET_VARIABLES
 from .metcounter import daily_reset_sites, reset_reason
+from .metdeclared import (counter_sites, declared_wind, difference_daily_counter,
+                          suspected_notes)
 from .metwind import wind_unit_findings
 
 #: The variables every met row needs: an empty cell of one flags its row.
@@ -64,8 +69,14 @@ def _celsius_as_f(temp, med, frame, t, per_site, mask, unit):
          "41 degF in a whole year at a site below 50 deg latitude and 1000 m (masked)")
 
 
-def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None = None):
+def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None = None,
+                   notes: list | None = None):
     """Run the per-row and per-site checks.
+
+    What a site's catalogue entry says of how its file is written is applied first
+    (:mod:`workbench.io.metdeclared`: ``met_wind_unit`` converts its wind speed,
+    ``met_precipitation = "daily_counter"`` differences its precipitation); the checks
+    then judge the values as converted.
 
     Parameters
     ----------
@@ -74,6 +85,9 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
         holding some values but not one of :data:`REQUIRED_NAMES` is flagged
         ``"<variable> missing (<missing>)"``.  None (the grid, whose missing hours have
         a note of their own): not flagged.
+    notes : list, optional
+        The input notes of the sites (what was converted or differenced, the rows of a
+        wind unit or a daily counter only suspected, with counts) are appended here.
 
     Returns
     -------
@@ -132,6 +146,16 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
     for name, sel in coded.items():
         values[name] = np.where(sel, np.nan, values[name])
     parts.extend(coded_reasons)
+    new_notes = []
+    # what the catalogue says of the file: the wind's unit, converted once (pint)
+    wind_declared = np.zeros(len(names), bool)
+    if "wind_speed" in values:
+        values["wind_speed"], wind_declared, got = declared_wind(
+            values["wind_speed"], codes, names, catalogue, raw_units.get("wind_speed", ""))
+        new_notes += got
+    rows_per_site = np.bincount(codes, minlength=len(names))
+    suspected = {"wind": [], "median": np.empty(0, np.int64), "counter": np.empty(0, np.int64),
+                 "hour": np.zeros(len(names), np.int64)}
     # the sun at each row's hour middle (the column checks and the night check)
     sun_deg = None
     if "solar_radiation" in values:
@@ -140,8 +164,19 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
     # precipitation as a gauge counter restarted each day (a sawtooth): before the
     # column checks and the cumulative rule, whose reasons would name another cause
     if "precipitation" in values:
+        offset = per_site_of("utc_offset_h")
         reset, hour, share, falls = daily_reset_sites(values["precipitation"], codes,
-                                                      len(names), t, per_site_of("utc_offset_h"))
+                                                      len(names), t, offset)
+        counter, given = counter_sites(names, catalogue)
+        if counter.any():                 # declared a daily counter: differenced here
+            values["precipitation"], why, got = difference_daily_counter(
+                values["precipitation"], codes, t, offset, names, counter, given,
+                (hour, share, falls), head_text("precipitation"))
+            if (why != "").any():
+                parts.append(why)
+            new_notes += got
+        reset &= ~counter
+        suspected["counter"], suspected["hour"] = np.flatnonzero(reset), hour
         for s in np.flatnonzero(reset):
             mask("precipitation", codes == s,
                  reset_reason(f"{head_text('precipitation')} at site {names[s]}", int(hour[s]), float(share[s]),
@@ -261,14 +296,19 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
         ws = values["wind_speed"]
         by_ustar, found = wind_unit_findings(ws, values.get("friction_velocity"), codes,
                                              names, catalogue, head_text("wind_speed"))
+        found = [(c, r) for c, r in found if not wind_declared[c]]    # the user has said
+        suspected["wind"] = found
         for c, reason in found:
             flag(codes == c, reason)
         named = np.zeros(len(names), bool)
         named[[c for c, _ in found]] = True
         g = frame.assign(v=ws).groupby("site")["v"]
         med_u = g.transform("median").to_numpy()
-        flag((med_u > KMH_MEDIAN_MIN) & (g.transform("count").to_numpy() >= MEDIAN_MIN_HOURS)
-             & ~(by_ustar | named)[codes],
+        by_median = ((med_u > KMH_MEDIAN_MIN)
+                     & (g.transform("count").to_numpy() >= MEDIAN_MIN_HOURS)
+                     & ~(by_ustar | named | wind_declared)[codes])
+        suspected["median"] = np.unique(codes[by_median])
+        flag(by_median,
              f"wind speed median above {KMH_MEDIAN_MIN:g} m/s at this site: km/h (x 3.6) or "
              "knots (x 1.94) under an m/s header? (kept)")
     # hard ranges
@@ -284,4 +324,8 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
         systematic = np.isin(codes, share.index[share > NIGHT_SHARE_HINT].to_numpy())
         flag(bad & systematic, "solar radiation at night at many hours: " + NIGHT_SUN_HINT)
         flag(bad & ~systematic, "solar radiation above 25 W/m2 at night")
+    if notes is not None:
+        notes.extend(new_notes + suspected_notes(names, rows_per_site, suspected["wind"],
+                                                 suspected["median"], suspected["counter"],
+                                                 suspected["hour"]))
     return join_reasons(parts) if parts else np.full(n, "", object), values

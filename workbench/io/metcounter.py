@@ -8,8 +8,10 @@ one hour too, from a lone value).  An hourly
 record's falls (a shower easing) come at every hour of the day: at the demo's sites the
 most frequent hour holds 4.5-4.6 % of a site's falls (1/24 = 4.2 %), a daily counter's
 100 %.  The values are masked with a reason that names the column, the hour and what to
-write; they are never differenced back here (a gap or a manual reset inside a day would
-turn into a wrong amount without a trace).  numpy over rows, no loop over hours.
+write; they are never differenced back on a guess (a gap or a manual reset inside a day
+would turn into a wrong amount without a trace).  A user who confirms the counter says
+so in sites.toml (``met_precipitation = "daily_counter"``), and
+:mod:`workbench.io.metdeclared` differences it.  numpy over rows, no loop over hours.
 """
 from __future__ import annotations
 

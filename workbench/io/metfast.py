@@ -263,7 +263,7 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour, dr
     reason_codes = np.zeros(n, np.int32)
     rejected = np.zeros(n, bool)
     texts = {"": 0}
-    gap_notes, repeats = [], []
+    gap_notes, repeats, declared_notes = [], [], []
 
     def check(grp):
         """One group of whole sites (on a thread): None for a repeated hour, else the
@@ -292,8 +292,9 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour, dr
         empty = np.ones(len(grp), bool)
         for v in sub.values():
             empty &= np.isnan(v)
+        site_notes = []
         reasons, sub = metchecks.run_row_checks(sub, ids[st], tt, catalogue, units,
-                                                   missing="no value")
+                                                missing="no value", notes=site_notes)
         reasons = np.asarray(reasons, dtype=object)
         if empty.any():                     # joined on the empty rows only (the same text)
             reasons[empty] = join_reasons([reasons[empty], np.full(int(empty.sum()),
@@ -312,7 +313,7 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour, dr
                 "row_present": SimpleNamespace(values=present),
                 "site": SimpleNamespace(values=np.array(site_ids[lo:hi], dtype=object)),
                 "time": SimpleNamespace(values=times)})
-        return grp, inv, [str(u) for u in uniq], empty, notes, again, of
+        return grp, inv, [str(u) for u in uniq], empty, notes, again, of, site_notes
 
     # groups in flight: one per thread (map_ordered), so each is smaller on more threads
     checked = map_ordered(check, rows.groups(max(CHECK_ROWS // threads_here(), 1)))
@@ -322,7 +323,8 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour, dr
                 checked.close()              # the groups still running finish first
                 store.remove()
                 return _REPEAT
-            grp, inv, uniq, empty, notes, again, of = got
+            grp, inv, uniq, empty, notes, again, of, more = got
+            declared_notes += more
             for u in uniq:
                 texts.setdefault(u, len(texts))
             reason_codes[grp] = np.array([texts[u] for u in uniq], np.int32)[inv]
@@ -351,6 +353,7 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour, dr
     ds = load_small(ds, store)
     release_free_memory()              # the groups' arrays, freed above
     ledger.notes.extend(gap_notes)
+    ledger.notes.extend(declared_notes)          # after the gaps, as the line reader
     if len(again):                           # after the gaps, as the line reader
         ledger.notes.append(repeat_note(SimpleNamespace(path=path), rows.line_of(again),
                                         rows.line_of(of)))

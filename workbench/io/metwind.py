@@ -12,7 +12,9 @@ outside the wind column:
   only exposed coasts, islands and summits pass.
 
 The values are always kept as read; the rows of a site found so are flagged with one
-reason naming the column, the factor and what was expected (``(kept)``).  numpy and
+reason naming the column, the factor and what was expected (``(kept)``).  A user who
+confirms the unit says so in sites.toml (``met_wind_unit``), and
+:mod:`workbench.io.metdeclared` converts the site's wind instead.  numpy and
 pandas over rows, no loop over hours.
 
 References

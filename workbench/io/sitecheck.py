@@ -11,8 +11,8 @@ from ..landuse import LAND_USE, class_hint
 from .critical_loads import check_critical_loads
 from .sitechanges import check_changes
 from .sitegeometry import ELEVATION_RANGE, _geometry, _mast_history_geometry
-from .siterecord import (COLLECTORS, NH3_GAMMA_HINT, PARTICLE_SPECIES, SITE_KEYS, Site,
-                         USTAR_TRANSFERS, _monthly_lai)
+from .siterecord import (COLLECTORS, MET_PRECIPITATION_FORMS, MET_WIND_UNITS, NH3_GAMMA_HINT,
+                         PARTICLE_SPECIES, SITE_KEYS, Site, USTAR_TRANSFERS, _monthly_lai)
 
 
 def _type_check(t, err):
@@ -151,6 +151,7 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None,
         if sp not in air_species:
             raise err("unknown air species in source_plume", "source_plume", sp,
                       "one of " + ", ".join(air_species) + suggest(str(sp), air_species))
+    _met_writing(t, err)
     for key in ("displacement_height_m", "terrain_slope_deg", "coast_distance_km"):
         if key in t and t[key] < 0:
             raise err("negative value", key, t[key], "a value >= 0")
@@ -179,7 +180,38 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None,
         changes=changes,
         laboratory=t["laboratory"].strip() if t.get("laboratory") else None,
         air_laboratory=t["air_laboratory"].strip() if t.get("air_laboratory") else None,
-        source_plume=tuple(dict.fromkeys(plume)))
+        source_plume=tuple(dict.fromkeys(plume)), met_wind_unit=t.get("met_wind_unit"),
+        met_precipitation=t.get("met_precipitation", "hourly"),
+        met_counter_restart_hour=t.get("met_counter_restart_hour"))
+
+
+def _met_writing(t, err):
+    """The keys that say how the site's met file is written (``met_wind_unit``,
+    ``met_precipitation``, ``met_counter_restart_hour``): one located error for a value
+    that is none of the expected."""
+    unit = t.get("met_wind_unit")
+    if unit is not None and unit not in MET_WIND_UNITS:
+        raise err("unknown wind unit in met_wind_unit", "met_wind_unit", unit,
+                  "one of " + ", ".join(f'"{u}"' for u in MET_WIND_UNITS) + " (the unit the "
+                  "met file's wind speed is written in where its header says m/s)"
+                  + suggest(str(unit), MET_WIND_UNITS))
+    form = t.get("met_precipitation", "hourly")
+    if form not in MET_PRECIPITATION_FORMS:
+        raise err("unknown form in met_precipitation", "met_precipitation", form,
+                  '"hourly" (each hour\'s amount, the default) or "daily_counter" (the day\'s '
+                  "running total, restarted each day)"
+                  + suggest(str(form), MET_PRECIPITATION_FORMS))
+    hour = t.get("met_counter_restart_hour")
+    if hour is not None:
+        if not 0 <= hour <= 23:
+            raise err("restart hour out of range", "met_counter_restart_hour", hour,
+                      "a whole hour of the day from 0 to 23 (the file's clock: 0 for a counter "
+                      "restarted at midnight, 9 at 09:00)")
+        if form != "daily_counter":
+            raise err("met_counter_restart_hour without a daily counter",
+                      "met_counter_restart_hour", hour,
+                      'met_precipitation = "daily_counter" beside it (the hour is that '
+                      "counter's restart)")
 
 
 def _nh3_emission_potential(t, err, notes, label, receptors) -> dict:

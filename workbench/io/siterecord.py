@@ -47,6 +47,15 @@ SITE_KEYS = {
     "source_plume": (list, False, "air species whose samplers at this site stand in the "
                      "plume of a nearby source, e.g. [\"NH3\"] beside livestock housing: "
                      "their high values are real, never judged a 1000x unit slip"),
+    "met_wind_unit": (str, False, "the unit the met file's wind speed at this site is "
+                      "written in where its header's unit is wrong: knots, mph or km/h "
+                      "(converted to m/s when read)"),
+    "met_precipitation": (str, False, "how the met file's precipitation at this site is "
+                          "written: 'hourly' (default) or 'daily_counter' (the day's running "
+                          "total, differenced into each hour's amount when read)"),
+    "met_counter_restart_hour": (int, False, "hour of the day (0-23, the file's clock) at "
+                                 "which a daily counter restarts (met_precipitation = "
+                                 "'daily_counter'); default: the hour its falls come at"),
     "change": (list, False, "the site's history: [[site.change]] tables with date and what "
                "(docs/data_formats.md, \"A long record\")"),
 }
@@ -58,6 +67,10 @@ PARTICLE_SPECIES = ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa")
 #: (order 1e4; Massad et al. 2010, from memory): a hint, not an error [-].
 NH3_GAMMA_HINT = 1e5
 COLLECTORS = ("wet_only", "bulk")
+#: Units a site's ``met_wind_unit`` may name (pint reads each; metwind.SLIP_FACTORS).
+MET_WIND_UNITS = ("knots", "mph", "km/h")
+#: How a site's ``met_precipitation`` may say its met precipitation is written.
+MET_PRECIPITATION_FORMS = ("hourly", "daily_counter")
 
 
 @dataclass(frozen=True)
@@ -98,6 +111,14 @@ class Site:
     air_laboratory: str | None = None
     #: air species whose samplers stand in a nearby source's plume (``source_plume``)
     source_plume: tuple = ()
+    #: the unit the met file's wind speed is written in where its header's is wrong
+    #: (``met_wind_unit``: knots, mph or km/h); None: the header's
+    met_wind_unit: str | None = None
+    #: how the met precipitation is written (``met_precipitation``): "hourly" or
+    #: "daily_counter"; the counter's restart hour [h of the day, file's clock] or None
+    #: (from the data)
+    met_precipitation: str = "hourly"
+    met_counter_restart_hour: int | None = None
 
     def critical_loads_for(self, receptor) -> dict:
         """Critical loads of a receptor [eq ha-1 yr-1]: the site's, with the receptor's
@@ -132,7 +153,8 @@ def site_dict(site: Site) -> dict:
     if site.coarse_fraction:
         out["coarse_fraction"] = dict(site.coarse_fraction)
     for key in ("roughness_length_m", "displacement_height_m", "met_land_use",
-                "coast_distance_km", "laboratory", "air_laboratory"):
+                "coast_distance_km", "laboratory", "air_laboratory", "met_wind_unit",
+                "met_counter_restart_hour"):
         if getattr(site, key) is not None:
             out[key] = getattr(site, key)
     if site.lai is not None:
@@ -141,6 +163,8 @@ def site_dict(site: Site) -> dict:
         out["nh3_emission_potential"] = dict(site.nh3_emission_potential)
     if site.ustar_transfer:
         out["ustar_transfer"] = dict(site.ustar_transfer)
+    if site.met_precipitation != "hourly":
+        out["met_precipitation"] = site.met_precipitation
     if site.source_plume:
         out["source_plume"] = list(site.source_plume)
     if site.changes:
