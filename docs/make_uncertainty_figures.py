@@ -166,6 +166,26 @@ def bidirectional_figures(bstudy, bres):
             "n95": float(_span_exceedance(bstudy, drawn(bstudy, bres))["n_dep_eq_ha_yr_p95"])}
 
 
+def farm_ranges(r, receptor):
+    """{(period, element): "p05-p95"} of the total S and N [kg/ha/yr], 2 decimals, of the
+    farm's `receptor` in the drawn result `r`, for the span and 2020."""
+    t = r.table
+    out = {}
+    for period in ("span", "2020"):
+        for element in ("S", "N"):
+            row = t[(t["site"] == "farm") & (t["receptor"] == receptor)
+                    & (t["period"].astype(str) == period) & (t["element"] == element)
+                    & (t["pathway"] == "total")].iloc[0]
+            out[period, element] = (f"{row['flux_kg_ha_yr_p05']:.2f}-"
+                                    f"{row['flux_kg_ha_yr_p95']:.2f}")
+    return out
+
+
+def farm_grass_ranges(r):
+    """:func:`farm_ranges` of the farm's grass (the systematic errors' tables)."""
+    return farm_ranges(r, "grass")
+
+
 def gamma_rows(default_run, high_run):
     """{case: (gsd 1 cell, gsd 3 cell)} of the document's table [kg N/ha], 5/50/95 %:
     `default_run` the farm's 2020 under the bidirectional NH3 with the class default,
@@ -207,6 +227,8 @@ def main():
         defaults = drawn(study, res)
         for label, cells in exceedance_rows(study, res, defaults).items():
             print(f"| {label} | {cells} |")
+        print("farm grass", farm_grass_ranges(defaults))
+        print("farm crops", farm_ranges(defaults, "crops"))
         for key, value in span_figures(study, res, defaults).items():
             print(f"{key}: {value:.4f}")
         for n, value in draw_count_figures(study, res).items():

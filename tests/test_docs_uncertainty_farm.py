@@ -72,3 +72,14 @@ def test_the_point_figures_of_the_prose(figures):
             f"({f['point_exceedance']:.0f}, region 3)") in text
     assert f"({f['n95']:,.0f} − 2,500 + about 350 ≈ 3,600)" in text
     assert f"2,257 + {f['nh3_eq']:,.0f} (2^1.645 − 1) = 5,217" in text
+
+
+def test_the_farm_ranges_quoted_beside_the_tables_of_past_changes(uncertainty_figures,
+                                                                  defaults):
+    m = uncertainty_figures
+    text = _flat(DOC.read_text(encoding="utf-8"))
+    g = m.farm_grass_ranges(defaults)
+    assert (f"the demo's farm / grass reads S {g['span', 'S']} over the span and "
+            f"{g['2020', 'S']} in 2020, N {g['span', 'N']} and {g['2020', 'N']}") in text
+    c = m.farm_ranges(defaults, "crops")
+    assert f"farm / crops N {c['2020', 'N']}, {c['span', 'N']}, before and now" in text
