@@ -11,7 +11,8 @@ Held (annual mean Vd [cm/s], 2 decimals as written):
 - section 9, the same with the acid ratio of the measured air
   (`nh3_acid_ratio_from_air`): the hourly median AR of each site and the Vd(NH3) it
   gives;
-- section 9.5, SO2 with and without the SO2-NH3 co-deposition, both schemes.
+- section 9.5, SO2 with and without the SO2-NH3 co-deposition, both schemes, and the
+  median hourly NH3/SO2 ratio of each site behind it.
 
 The reference is the engine itself (these are measured numbers, not checks of a method;
 the methods have their own tests in tests/drydep/). Rounding: half away from zero at two
@@ -199,3 +200,22 @@ def test_acid_ratio_from_air_sentence_of_section_9(demo, study):
     want = tuple(_r(ar.sel(site=s)) for s in ("ridge", "fell", "mere", "farm")) + (
         _span(air, "NH3", UPLAND), _v(air, "NH3", "mere", "wetland"), _span(air, "NH3", FARM))
     assert m.groups() == want, f"re-measure docs/methods_dry.md 9:\n{m.groups()}\n{want}"
+
+
+def test_hourly_ratio_of_section_9_5(study):
+    """The median hourly NH3/SO2 ratio of each site in 2021 and "a ratio in every hour"
+    (codeposition.hourly_ratio through the stage's met)."""
+    from workbench.drydep import DryOptions
+    from workbench.stages import met_with_air
+    text = DOC.read_text()
+    m = re.search(r"On the demo \(2021, defaults; median hourly NH3/SO2 ratio ([\d.]+) ridge, "
+                  r"([\d.]+) fell, ([\d.]+) mere, ([\d.]+) farm; a ratio in every hour;",
+                  _flat(text))
+    assert m, "the hourly-ratio sentence of docs/methods_dry.md 9.5"
+    opt = DryOptions(particles=(), components=False, gases=("SO2",), so2_codeposition=True)
+    met = met_with_air(study.inputs.met, study.inputs.air, study.surfaces(), opt)
+    ratio = met["nh3_so2_ratio"].sel(time=slice(*_vd_table_module().YEAR))
+    assert int(ratio.isnull().sum()) == 0
+    med = ratio.median("time")
+    want = tuple(f"{float(med.sel(site=s)):.2g}" for s in ("ridge", "fell", "mere", "farm"))
+    assert m.groups() == want, f"re-measure docs/methods_dry.md 9.5:\n{m.groups()}\n{want}"
