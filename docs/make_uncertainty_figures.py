@@ -18,8 +18,9 @@ document names (2,000 draws, seed 12345 unless stated) and
 * :func:`gamma_rows`: the farm's crops under ``nh3_treatment = "bidirectional"`` with
   ``nh3_gamma_gsd`` 1 and 3, [kg N/ha] 5 / 50 / 95 %.
 
-``tests/test_docs_uncertainty_farm.py``, ``tests/test_docs_uncertainty_draws.py`` and
-``tests/test_docs_uncertainty_gamma.py`` compute the same and fail when the document's numbers are not what they give.
+``tests/test_docs_uncertainty_farm.py``, ``test_docs_uncertainty_draws.py``,
+``test_docs_uncertainty_bidirectional.py`` and ``test_docs_uncertainty_gamma.py``
+compute the same and fail when the document's numbers are not what they give.
 Run ``python docs/make_uncertainty_figures.py`` (about a minute) to print them.
 """
 from __future__ import annotations

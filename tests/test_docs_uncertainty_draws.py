@@ -1,18 +1,15 @@
 """Demo numbers of docs/methods_uncertainty.md, "A wide exceedance range: the demo's farm
 (measured)", that need other runs than its table: the 95 % of the farm's acidity
-exceedance at 100, 200, 500 and 5,000 draws, and the farm under ``nh3_treatment =
-"bidirectional"`` (the net against the deposition-only figure each year, the 95 % of
-the span's N total at 2,000 draws). Recomputed with ``docs/make_uncertainty_figures.py``
-(seed 12345); the reference is the engine itself (measured numbers, not checks of a
-method). Numbers as written: whole eq/ha/yr with thousands separated, shares in whole
+exceedance at 100, 200, 500 and 5,000 draws (the farm under the bidirectional NH3:
+tests/test_docs_uncertainty_bidirectional.py). Recomputed with
+``docs/make_uncertainty_figures.py`` (seed 12345); the reference is the engine itself
+(measured numbers, not checks of a method). Numbers as written: whole eq/ha/yr with thousands separated, shares in whole
 percent (Python's format, common practice).
 """
 from __future__ import annotations
 
 import re
 from pathlib import Path
-
-import pytest
 
 DOC = Path(__file__).resolve().parents[1] / "docs" / "methods_uncertainty.md"
 
@@ -34,20 +31,3 @@ def test_the_95_percent_at_other_numbers_of_draws(uncertainty_figures, farm_span
     assert (f"a 95 % of thousands: {w[100]} with 100 draws, {w[200]} with 200 (the output's "
             f"own column), 3,606 with 2,000 and {w[5000]} with 5,000") in text
     assert f"{w[100]} at 100 draws and {w[500]} at 500 are within it" in text
-
-
-def test_the_bidirectional_farm(uncertainty_figures, tmp_path_factory):
-    m = uncertainty_figures
-    bi = m.farm_run(tmp_path_factory.mktemp("farm_bi"), dry='nh3_treatment = "bidirectional"')
-    f = m.bidirectional_figures(*bi)
-    lo, hi = f"{100 * f['net_share_min']:.0f}", f"{100 * f['net_share_max']:.0f}"
-    text = _flat_section(*FARM)
-    deposition_only_n95 = re.search(r"\| the defaults \| [^|]+ \| [\d,]+ / [\d,]+ / ([\d,]+) \|",
-                                    text).group(1)
-    change = 1.0 - f["n95"] / float(deposition_only_n95.replace(",", ""))
-    assert (f"the net exchange at this site is {lo}-{hi} % of the deposition-only figure "
-            f"every year and the N range moves by {100 * change:.0f} % (95 % of the span's "
-            f"N total {f['n95']:,.0f} against {deposition_only_n95} eq/ha/yr, 2,000 draws;"
-            ) in text
-    net = _flat_section("### The net NH3 exchange (bidirectional)", "**Pair split.**")
-    assert f"Gamma_s: net {lo}-{hi} % of B)" in net
