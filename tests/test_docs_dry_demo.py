@@ -8,7 +8,8 @@ Held (annual mean Vd [cm/s], 2 decimals as written):
 - section 7, the LAI season rule against the month rule (Wesely);
 - section 8, the surface dew rule against the scheme's own (Wesely SO2);
 - section 9, Wesely's NH3 with the humidity cuticle against the scheme's paths;
-- section 9, the same with the acid ratio of the measured air
+- section 9, the median acid ratio of each site's air samples, and the same with the
+  acid ratio of the measured air
   (`nh3_acid_ratio_from_air`): the hourly median AR of each site and the Vd(NH3) it
   gives;
 - section 9.5, SO2 with and without the SO2-NH3 co-deposition, both schemes, and the
@@ -219,3 +220,19 @@ def test_hourly_ratio_of_section_9_5(study):
     med = ratio.median("time")
     want = tuple(f"{float(med.sel(site=s)):.2g}" for s in ("ridge", "fell", "mere", "farm"))
     assert m.groups() == want, f"re-measure docs/methods_dry.md 9.5:\n{m.groups()}\n{want}"
+
+
+def test_acid_ratio_of_the_samples_of_section_9(study):
+    """The median molar (2 SO2 + HNO3)/NH3 of each site's air samples over the record."""
+    import numpy as np
+    air = study.inputs.air
+    m = re.search(r"The demo's own air has a median \(2 SO2 \+ HNO3\)/NH3 of ([\d.]+) at ridge, "
+                  r"([\d.]+) at fell and ([\d.]+) at mere \(molar, of its air samples over the "
+                  r"whole record; no farm sample holds all three\)", _flat(DOC.read_text()))
+    assert m, "the acid ratio of the demo's air in docs/methods_dry.md 9"
+    site = air["site"].values
+    ar = (2.0 * air["SO2"].values + air["HNO3"].values) / air["NH3"].values
+    assert air["SO2"].attrs["units"] == "mol m-3"          # molar amounts
+    want = tuple(_r(np.nanmedian(ar[site == s])) for s in ("ridge", "fell", "mere"))
+    assert m.groups() == want
+    assert np.isnan(ar[site == "farm"]).all()
