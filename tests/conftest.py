@@ -14,3 +14,27 @@ def two_site_run(tmp_path_factory):
     out = tmp / "out"
     assert main(["run", str(scenario), "--out", str(out), "--quiet"]) == 0
     return out
+
+
+def _docs_script(name):
+    """The module of the script docs/<name>.py (the writers of the docs' demo numbers)."""
+    import importlib.util
+    from pathlib import Path
+    path = Path(__file__).resolve().parents[1] / "docs" / f"{name}.py"
+    spec = importlib.util.spec_from_file_location(name, path)
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    return mod
+
+
+@pytest.fixture(scope="session")
+def uncertainty_figures():
+    """docs/make_uncertainty_figures.py as a module."""
+    return _docs_script("make_uncertainty_figures")
+
+
+@pytest.fixture(scope="session")
+def farm_span(uncertainty_figures, tmp_path_factory):
+    """(study, result) of the demo's farm alone over 2016-2023 (the demo's span), every
+    option at the demo scenario's value; read only."""
+    return uncertainty_figures.farm_run(tmp_path_factory.mktemp("farm_span"))

@@ -8,7 +8,12 @@ Held (annual mean Vd [cm/s], 2 decimals as written):
 - section 7, the LAI season rule against the month rule (Wesely);
 - section 8, the surface dew rule against the scheme's own (Wesely SO2);
 - section 9, Wesely's NH3 with the humidity cuticle against the scheme's paths;
-- section 9.5, SO2 with and without the SO2-NH3 co-deposition, both schemes.
+- section 9, the median acid ratio of each site's air samples, and the same with the
+  acid ratio of the measured air
+  (`nh3_acid_ratio_from_air`): the hourly median AR of each site and the Vd(NH3) it
+  gives;
+- section 9.5, SO2 with and without the SO2-NH3 co-deposition, both schemes, and the
+  median hourly NH3/SO2 ratio of each site behind it.
 
 The reference is the engine itself (these are measured numbers, not checks of a method;
 the methods have their own tests in tests/drydep/). Rounding: half away from zero at two
@@ -35,12 +40,17 @@ def _vd_table_module():
 
 
 @pytest.fixture(scope="module")
-def demo():
+def study():
+    """The demo scenario's Study (docs/make_vd_table.py)."""
+    return _vd_table_module().demo_study()
+
+
+@pytest.fixture(scope="module")
+def demo(study):
     """(means, text): means(label, **options) -> gas -> (site, receptor) -> cm/s."""
     from workbench.drydep import DryOptions, velocities
     from workbench.stages import met_with_air
     m = _vd_table_module()
-    study = m.demo_study()
     surf = study.surfaces()
     cache = {}
 
@@ -167,3 +177,62 @@ def test_nh3_cuticle_sentence_of_section_9(demo):
     assert m.groups() == tuple(
         _span(means(gas_scheme="wesely1989", nh3_acid_ratio=ar), "NH3", land)
         for ar in (0.1, 0.3, 1.0, 3.0))
+
+
+UPLAND = [("ridge", "conifer_forest"), ("ridge", "moorland"), ("ridge", "grass"),
+          ("fell", "moorland"), ("fell", "grass")]
+FARM = [("farm", "grass"), ("farm", "crops"), ("farm", "deciduous_forest")]
+
+
+def test_acid_ratio_from_air_sentence_of_section_9(demo, study):
+    from workbench.drydep import DryOptions
+    from workbench.stages import met_with_air
+    means, text = demo
+    m = re.search(r"On the demo \(2021, defaults; hourly median AR ([\d.]+) ridge, ([\d.]+) "
+                  r"fell, ([\d.]+) mere, ([\d.]+) farm\) Wesely's Vd\(NH3\) is then ([\d.-]+) "
+                  r"cm/s over the upland receptors, ([\d.]+) over the mere wetland and "
+                  r"([\d.-]+) at the farm", _flat(text))
+    assert m, "the nh3_acid_ratio_from_air sentence of docs/methods_dry.md 9"
+    opt = DryOptions(particles=(), components=False, gas_scheme="wesely1989",
+                     gases=("SO2", "NO2", "O3", "NH3"), nh3_acid_ratio_from_air=True)
+    met = met_with_air(study.inputs.met, study.inputs.air, study.surfaces(), opt)
+    ar = met["nh3_acid_ratio"].sel(time=slice(*_vd_table_module().YEAR)).median("time")
+    air = means(gas_scheme="wesely1989", nh3_acid_ratio_from_air=True)
+    want = tuple(_r(ar.sel(site=s)) for s in ("ridge", "fell", "mere", "farm")) + (
+        _span(air, "NH3", UPLAND), _v(air, "NH3", "mere", "wetland"), _span(air, "NH3", FARM))
+    assert m.groups() == want, f"re-measure docs/methods_dry.md 9:\n{m.groups()}\n{want}"
+
+
+def test_hourly_ratio_of_section_9_5(study):
+    """The median hourly NH3/SO2 ratio of each site in 2021 and "a ratio in every hour"
+    (codeposition.hourly_ratio through the stage's met)."""
+    from workbench.drydep import DryOptions
+    from workbench.stages import met_with_air
+    text = DOC.read_text()
+    m = re.search(r"On the demo \(2021, defaults; median hourly NH3/SO2 ratio ([\d.]+) ridge, "
+                  r"([\d.]+) fell, ([\d.]+) mere, ([\d.]+) farm; a ratio in every hour;",
+                  _flat(text))
+    assert m, "the hourly-ratio sentence of docs/methods_dry.md 9.5"
+    opt = DryOptions(particles=(), components=False, gases=("SO2",), so2_codeposition=True)
+    met = met_with_air(study.inputs.met, study.inputs.air, study.surfaces(), opt)
+    ratio = met["nh3_so2_ratio"].sel(time=slice(*_vd_table_module().YEAR))
+    assert int(ratio.isnull().sum()) == 0
+    med = ratio.median("time")
+    want = tuple(f"{float(med.sel(site=s)):.2g}" for s in ("ridge", "fell", "mere", "farm"))
+    assert m.groups() == want, f"re-measure docs/methods_dry.md 9.5:\n{m.groups()}\n{want}"
+
+
+def test_acid_ratio_of_the_samples_of_section_9(study):
+    """The median molar (2 SO2 + HNO3)/NH3 of each site's air samples over the record."""
+    import numpy as np
+    air = study.inputs.air
+    m = re.search(r"The demo's own air has a median \(2 SO2 \+ HNO3\)/NH3 of ([\d.]+) at ridge, "
+                  r"([\d.]+) at fell and ([\d.]+) at mere \(molar, of its air samples over the "
+                  r"whole record; no farm sample holds all three\)", _flat(DOC.read_text()))
+    assert m, "the acid ratio of the demo's air in docs/methods_dry.md 9"
+    site = air["site"].values
+    ar = (2.0 * air["SO2"].values + air["HNO3"].values) / air["NH3"].values
+    assert air["SO2"].attrs["units"] == "mol m-3"          # molar amounts
+    want = tuple(_r(np.nanmedian(ar[site == s])) for s in ("ridge", "fell", "mere"))
+    assert m.groups() == want
+    assert np.isnan(ar[site == "farm"]).all()
