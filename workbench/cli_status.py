@@ -1,6 +1,8 @@
 """What ``workbench run`` prints after a run: the budgets' status counts, the notes on
 the run's span, the sites whose totals are not complete, the site-periods whose
-totals fail completeness and the run's notes (those of report.html and provenance.json).
+totals fail completeness and the run's notes (those of report.html and provenance.json);
+and the whole-span table of ``workbench demo`` (:func:`span_lines`), all within 79
+characters.
 
 Part of :mod:`workbench.cli`, which re-exports every name here.
 """
