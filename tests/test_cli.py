@@ -233,19 +233,39 @@ def test_ctrl_c_exits_130_and_leaves_nothing(tiny, monkeypatch, capsys):
 
 
 def test_real_sigint_while_writing(tiny, tmp_path):
-    """A real SIGINT (Ctrl-C) while the files are written: exit 130, one line, no folder."""
+    """A real SIGINT (Ctrl-C) while the files are written: exit 130, one line, no folder.
+
+    The signal is sent from inside a writing step and lands there, whatever the load:
+    ``signal.raise_signal`` sends it to the calling (main) thread and runs the Python
+    handler before it returns (CPython's signal module, "raise_signal"), so the
+    KeyboardInterrupt comes out of the step itself; the step records that it did.
+    (``os.kill(os.getpid(), SIGINT)`` was used before: the kernel may hand a signal sent
+    to the process to any of its threads (tqdm's monitor, a worker), whose handler can
+    run after the writing has ended, and the run once exited 0 under load.)"""
     signal = pytest.importorskip("signal")
     out = tmp_path / "run"
+    seen = tmp_path / "seen.txt"
     code = f"""
-        import os, signal, sys
+        import signal, sys
+        from pathlib import Path
         from workbench import writers
-        writers.OUTPUT_STEPS.insert(3, ("ctrl-c", lambda *a: os.kill(os.getpid(), signal.SIGINT)))
+
+        def ctrl_c(*args):
+            try:
+                signal.raise_signal(signal.SIGINT)    # handled before it returns
+            except KeyboardInterrupt:
+                Path(r"{seen}").write_text("interrupted in the writing step")
+                raise
+            Path(r"{seen}").write_text("the writing step went on after the signal")
+
+        writers.OUTPUT_STEPS.insert(3, ("ctrl-c", ctrl_c))
         from workbench.cli import main
         sys.exit(main(["run", r"{tiny}", "--out", r"{out}", "--quiet"]))
     """
     r = subprocess.run([sys.executable, "-c", textwrap.dedent(code)], capture_output=True,
                        text=True, cwd=ROOT, env={**os.environ, "PYTHONPATH": str(ROOT)})
-    assert r.returncode == 130
+    assert seen.read_text() == "interrupted in the writing step"     # landed while writing
+    assert r.returncode == 130, r.stderr
     assert r.stderr == f"error: interrupted; nothing was written into {out.resolve()}\n"
     assert not out.exists() and _leftovers(out) == []
 

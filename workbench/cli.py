@@ -30,8 +30,8 @@ from .cli_check import (_check_grid_only, _inputs_text, _progress,  # noqa: F401
                         absent_site_lines, cmd_check)
 # what a run prints after it (defined here before)
 from .cli_status import (console_lines, failing_lines, run_note_lines,  # noqa: F401
-                         run_span_notes, site_status_lines, status_lines,
-                         uncertainty_lines)
+                         run_span_notes, site_status_lines, span_lines,
+                         status_lines, uncertainty_lines)
 # the terminal: stderr's open line, Ctrl-C (defined here before)
 from .cli_terminal import (_LineEnd, _PipeWatch, _catch_ctrl_c, _end_line,  # noqa: F401
                            _in_gc_callback, _on_ctrl_c, _quiet_stdout)
@@ -237,16 +237,13 @@ def cmd_demo(args) -> int:
             "rows read with a note)"])))
         print()
     t = result.table
-    span = t[(t["period"] == "span") & (t["species"] == "all") & (t["pathway"] == "total")]
-    if len(span):
-        print("whole-span totals (mean of the years that pass completeness):")
-        cols = ["site", "receptor", "element", "flux_kg_ha_yr", "flux_eq_ha_yr", "status",
-                "missing_components", "years_used"]
-        if "years_excluded" in span and span["years_excluded"].fillna("").astype(str).ne("").any():
-            cols.append("years_excluded")
-        print(span[[c for c in cols if c in span]].to_string(
-            index=False, formatters={"flux_kg_ha_yr": "{:.3g}".format,
-                                     "flux_eq_ha_yr": "{:,.0f}".format}))
+    span = span_lines(t)                   # whole-span table, fitted to 80 columns
+    if span:
+        print("\n".join(console_lines([
+            "whole-span totals, the mean of the years that pass completeness "
+            "(budget.csv's rows of period \"span\" have them with every column; "
+            "missing is its missing_components):"])))
+        print("\n".join(span))
         from .tables import SPAN_STATUS_WORDS
         print("\n".join(console_lines(["status: " + SPAN_STATUS_WORDS])))
     for line in console_lines(failing_lines(t)):     # totals that are not a full period's

@@ -1,6 +1,8 @@
 """What ``workbench run`` prints after a run: the budgets' status counts, the notes on
 the run's span, the sites whose totals are not complete, the site-periods whose
-totals fail completeness and the run's notes (those of report.html and provenance.json).
+totals fail completeness and the run's notes (those of report.html and provenance.json);
+and the whole-span table of ``workbench demo`` (:func:`span_lines`), all within 79
+characters.
 
 Part of :mod:`workbench.cli`, which re-exports every name here.
 """
@@ -330,3 +332,111 @@ def uncertainty_lines(out, result) -> list[str]:
                  + " and ".join(f"{k} = true" for k in held)
                  + " (docs/methods_uncertainty.md, \"Velocities that depend on the air\")")
     return _wrap(line, NOTE_WIDTH, "", "  ")
+
+
+#: Column heads of the console's whole-span table and the budget.csv columns under them.
+SPAN_HEADS = {"site": "site", "receptor": "receptor", "element": "element",
+              "flux_kg_ha_yr": "kg/ha/yr", "flux_eq_ha_yr": "eq/ha/yr",
+              "status": "status", "missing_components": "missing"}
+
+
+def span_lines(table, width=None) -> list[str]:
+    """The whole-span totals of `table` (budget rows; those of period ``span``, species
+    ``all``, pathway ``total``) for the console, every line at most `width` characters
+    (default :data:`NOTE_WIDTH`): a table of site, receptor, element, the total in
+    kg/ha/yr (3 significant digits, :func:`_kg`) and eq/ha/yr (whole, thousands separated), status
+    and missing components (heads of :data:`SPAN_HEADS`), then the years each row is
+    the mean of (``years_used``) and those left out (``years_excluded``): one line when
+    every row has the same years, else one line per set of years naming its rows.
+    Where the table is wider than `width` (long site names), each row is one wrapped
+    line instead (``farm crops N: 31.6 kg/ha/yr, 2,257 eq/ha/yr, flagged``).  Nothing
+    but the breaks and heads differs from budget.csv's span rows: each of their numbers
+    is here.
+
+    Examples
+    --------
+    >>> import pandas as pd
+    >>> t = pd.DataFrame({"site": ["fell", "fell"], "receptor": ["grass", "grass"],
+    ...     "period": ["span", "span"], "element": ["S", "N"], "species": ["all", "all"],
+    ...     "pathway": ["total", "total"], "flux_kg_ha_yr": [8.17, 13.6],
+    ...     "flux_eq_ha_yr": [510.4, 974.0], "status": ["complete", "partial"],
+    ...     "missing_components": ["", "NO2"], "years_used": ["2016 2017", "2016 2017"]})
+    >>> for x in span_lines(t):
+    ...     print(x)
+    site  receptor  element  kg/ha/yr  eq/ha/yr  status    missing
+    fell  grass     S            8.17       510  complete
+    fell  grass     N            13.6       974  partial   NO2
+    years used (years_used), every row: 2016 2017
+    """
+    width = NOTE_WIDTH if width is None else width
+    span = table[(table["period"].astype(str) == "span") & (table["species"] == "all")
+                 & (table["pathway"] == "total")]
+    if span.empty:
+        return []
+    cols = [c for c in SPAN_HEADS if c in span]
+    shown = span[cols].copy()
+    for c in ("missing_components", "status"):
+        if c in shown:
+            shown[c] = shown[c].fillna("").astype(str)
+    cells = {c: [_kg(v) if c == "flux_kg_ha_yr" else f"{v:,.0f}"
+                 if c == "flux_eq_ha_yr" else str(v) for v in shown[c]] for c in cols}
+    lines = [_table_line([SPAN_HEADS[c] for c in cols], cells, cols)] + [
+        _table_line([cells[c][i] for c in cols], cells, cols) for i in range(len(shown))]
+    if max(len(x) for x in lines) > width:              # long names: one line a row
+        lines = []
+        for r in shown.itertuples(index=False):
+            d = r._asdict()
+            words = [f"{_kg(d[k])} kg/ha/yr" if k == "flux_kg_ha_yr" else
+                     f"{d[k]:,.0f} eq/ha/yr" if k == "flux_eq_ha_yr" else str(d[k])
+                     for k in ("flux_kg_ha_yr", "flux_eq_ha_yr", "status") if k in d]
+            missing = d.get("missing_components", "")
+            lines.append(" ".join(str(d[k]) for k in ("site", "receptor", "element")
+                                  if k in d) + ": " + ", ".join(words)
+                         + (f"; missing {missing}" if missing else ""))
+        lines = console_lines(lines, width)
+    return lines + _span_years(span, width)
+
+
+def _kg(value) -> str:
+    """A total in kg/ha/yr for :func:`span_lines`: 3 significant digits, trailing zeros
+    kept (``5.20``, ``31.6``), whole from 1,000 on (``1,234``), never in e-notation.
+
+    >>> [_kg(v) for v in (5.2, 31.64, 0.0123, 1234.5, float("nan"))]
+    ['5.20', '31.6', '0.0123', '1,234', 'nan']
+    """
+    text = f"{value:#.3g}"
+    return f"{value:,.0f}" if "e" in text else text.rstrip(".")
+
+
+def _table_line(values, cells, cols) -> str:
+    """One line of :func:`span_lines`'s table: the numbers (kg, eq) right-aligned, the
+    words left-aligned, each column as wide as its head or its widest cell."""
+    out = []
+    for v, c in zip(values, cols):
+        w = max([len(SPAN_HEADS[c])] + [len(x) for x in cells[c]])
+        out.append(v.rjust(w) if c.startswith("flux_") else v.ljust(w))
+    return "  ".join(out).rstrip()
+
+
+def _span_years(span, width) -> list[str]:
+    """The years of the span rows (``years_used``, ``years_excluded``) for
+    :func:`span_lines`: one line when every row has the same, else one per set of years
+    naming its rows (``site receptor element``)."""
+    if "years_used" not in span:
+        return []
+    used = span["years_used"].fillna("").astype(str).str.strip()
+    left = (span["years_excluded"].fillna("").astype(str).str.strip()
+            if "years_excluded" in span else used.str.slice(0, 0))
+    keys = list(zip(used, left))
+    words = {k: (k[0] or "none") + (f" (years_excluded: {k[1]})" if k[1] else "")
+             for k in keys}
+    if len(set(keys)) == 1:
+        return console_lines([f"years used (years_used), every row: {words[keys[0]]}"],
+                             width)
+    lines = ["years used (years_used):"]
+    names = [" ".join(str(r[c]) for c in ("site", "receptor", "element") if c in span)
+             for _, r in span.iterrows()]
+    for k in dict.fromkeys(keys):                  # in the order of the rows
+        rows = [n for n, key in zip(names, keys) if key == k]
+        lines.append(f"  {words[k]}: " + ", ".join(rows))
+    return console_lines(lines, width)
