@@ -10,7 +10,8 @@ limit) and interrupts.  A run folder is written whole or not at all
 Where the parts are: ``workbench check`` (:func:`cmd_check`, :func:`absent_site_lines`)
 in :mod:`workbench.cli_check`; what a run prints after it (:func:`status_lines`,
 :func:`run_span_notes`, :func:`site_status_lines`, :func:`failing_lines`,
-:func:`run_note_lines`, :func:`uncertainty_lines`, :func:`console_lines`) in
+:func:`run_note_lines`, :func:`uncertainty_lines`, :func:`input_note_lines`,
+:func:`console_lines`) in
 :mod:`workbench.cli_status`; the
 terminal (:class:`_LineEnd`, Ctrl-C) in :mod:`workbench.cli_terminal`; ``verify`` and
 ``compare`` in :mod:`workbench.cli_runs`.  This module re-exports them, so that
@@ -29,8 +30,8 @@ from .errors import WorkbenchError
 from .cli_check import (_check_grid_only, _inputs_text, _progress,  # noqa: F401
                         absent_site_lines, cmd_check)
 # what a run prints after it (defined here before)
-from .cli_status import (console_lines, failing_lines, run_note_lines,  # noqa: F401
-                         run_span_notes, site_status_lines, span_lines,
+from .cli_status import (console_lines, failing_lines, input_note_lines,  # noqa: F401
+                         run_note_lines, run_span_notes, site_status_lines, span_lines,
                          status_lines, uncertainty_lines)
 # the terminal: stderr's open line, Ctrl-C (defined here before)
 from .cli_terminal import (_LineEnd, _PipeWatch, _catch_ctrl_c, _end_line,  # noqa: F401
@@ -202,15 +203,25 @@ def cmd_run(args) -> int:
         print(line)
     for line in _note_lines(result, args.scenario, said):   # report.html's "Notes"
         print(line)
+    # the readers' notes (suspected slips...): workbench check's, report.html's "Input
+    # rows"; the first few whole, the rest counted (`workbench demo` prints them all
+    # with the inputs, above)
+    for line in input_note_lines(study.inputs.ledger.notes, _sites(result),
+                                 Path(args.scenario).resolve().parent, str(args.scenario)):
+        print(line)
     return 0
+
+
+def _sites(result) -> list:
+    """The sites of a finished run (none when it has no yearly table)."""
+    years = getattr(result, "years", None)
+    return [] if years is None or "site" not in years.coords else list(years["site"].values)
 
 
 def _note_lines(result, scenario, said=()) -> list[str]:
     """:func:`run_note_lines` of a finished run: its notes, its sites, paths relative to
     the folder of the scenario file `scenario`."""
-    years = getattr(result, "years", None)
-    sites = [] if years is None or "site" not in years.coords else years["site"].values
-    return run_note_lines(getattr(result, "notes", []), sites,
+    return run_note_lines(getattr(result, "notes", []), _sites(result),
                           Path(scenario).resolve().parent, said)
 
 

@@ -1,7 +1,8 @@
 """What ``workbench run`` prints after a run: the budgets' status counts, the notes on
 the run's span, the sites whose totals are not complete, the site-periods whose
-totals fail completeness and the run's notes (those of report.html and provenance.json);
-and the whole-span table of ``workbench demo`` (:func:`span_lines`), all within 79
+totals fail completeness, the run's notes (those of report.html and provenance.json)
+and the input notes (those of ``workbench check``, report.html and provenance.json); and
+the whole-span table of ``workbench demo`` (:func:`span_lines`), all within 79
 characters.
 
 Part of :mod:`workbench.cli`, which re-exports every name here.
@@ -23,7 +24,8 @@ def console_lines(lines, width=None) -> list[str]:
     Only the breaks change: a line is cut at its spaces, never inside a word or a path
     (a longer word stands alone on an over-long line) nor between a number and the
     unit or word after it (``77.4 %``, ``3 filled``) nor inside an option and its value
-    (``[wet] period_fill = "seasonal"``, :func:`_hold_options`), and the words are
+    (``[wet] period_fill = "seasonal"``, :func:`_hold_options`) nor inside a quoted
+    column header (``'HNO3 [ug/m3]'``), and the words are
     kept as they are.  Used by ``workbench run`` and ``workbench demo`` for the status
     counts (:func:`status_lines`), the span notes (:func:`run_span_notes`), the sites
     not complete (:func:`site_status_lines`) and the totals failing completeness
@@ -65,6 +67,11 @@ _NUMBER_WORD = re.compile(r"(?<![\w.-])(\d[\d,.]*) (?=[A-Za-z%])")
 _OPTION = re.compile(r'\[[A-Za-z_][\w.]*\] [A-Za-z_]\w*(?: = (?:"[^"\n]*"|[^\s"]+))?')
 
 
+#: A column header as the notes quote it, ``'HNO3 [ug/m3]'`` or ``'NO3_as_N [mg/L]'``:
+#: held on one line by :func:`_hold_options` as an option is.
+_HEADER = re.compile(r"'[A-Za-z_][\w.]* \[[^\]'\n]+\]'")
+
+
 def _hold_options(text: str) -> str:
     """`text` with the spaces of each option (``[wet] period_fill = "seasonal"``,
     ``[budget] min_air_coverage = 0.75``, ``[dry] so2_codeposition``) replaced by NUL,
@@ -74,8 +81,14 @@ def _hold_options(text: str) -> str:
 
     >>> _hold_options('fill with [wet] period_fill = "seasonal" (the season)').split(" ")
     ['fill', 'with', '[wet]\\x00period_fill\\x00=\\x00"seasonal"', '(the', 'season)']
+
+    A quoted column header (``'HNO3 [ug/m3]'``, :data:`_HEADER`) is held the same way:
+
+    >>> _hold_options("ug N/m3 written under 'HNO3 [ug/m3]'?").split(" ")
+    ['ug', 'N/m3', 'written', 'under', "'HNO3\\x00[ug/m3]'?"]
     """
-    return _OPTION.sub(lambda m: m.group(0).replace(" ", "\0"), text)
+    held = _OPTION.sub(lambda m: m.group(0).replace(" ", "\0"), text)
+    return _HEADER.sub(lambda m: m.group(0).replace(" ", "\0"), held)
 
 
 def _wrap(text: str, width: int, first: str, rest: str, numbers=False) -> list[str]:
@@ -297,6 +310,85 @@ def run_note_lines(notes, site_ids=(), base=None, said=(), width=None,
     for n in shown:
         lines.extend(_wrap(" ".join(n.split()), width, "  - ", "    "))
     return lines
+
+
+#: At most this many input notes printed one by one at the end of ``workbench run``
+#: (:func:`input_note_lines`); the rest are counted, with where to read them [-] (five:
+#: a few long notes, each up to about eight lines at 79 columns, still fit a screen;
+#: our choice).
+INPUT_NOTES_SHOWN = 5
+
+
+def input_note_lines(notes, site_ids=(), base=None, scenario=None, shown=None,
+                     min_sites=None) -> list[str]:
+    """The input notes for the console at the end of ``workbench run``: the readers'
+    notes on the inputs (a suspected unit slip, a gas on the element basis, wind in
+    knots, a daily rain counter, missing met hours, repeated lines...), which ``workbench
+    check``, report.html ("Input rows") and provenance.json (``input_notes``) carry.
+    Before, a command-line user read none of them on the console: a run said "S: 68
+    complete" while a note said that a site's HNO3 may be 4.5 x low.
+
+    A heading, then at most `shown` (default :data:`INPUT_NOTES_SHOWN`) notes in the
+    order of the files, each whole, words unchanged, under a hanging ``"  - "``
+    (wrapped by :func:`console_lines` to :data:`NOTE_WIDTH` characters), then "and N
+    more" with where all of them are.  A note that a met record is complete
+    (:data:`workbench.io.metgaps.COMPLETE_RECORD`) says nothing is amiss and is left
+    out here (kept in the three places above).
+
+    Parameters
+    ----------
+    notes : list of str
+        The ledger's notes (``study.inputs.ledger.notes``).
+    site_ids : iterable of str
+        The run's sites: more than `min_sites` (default
+        :data:`workbench.report_network.NETWORK_SITES`) and the notes that differ only
+        by their site are one line, as report.html groups them
+        (:func:`workbench.report_network.grouped_free_notes`).
+    base : pathlib.Path, optional
+        The scenario's folder: paths inside it are written relative to it, as in the
+        report (:func:`workbench.runpaths.shown_text`).
+    scenario : str, optional
+        The scenario file as the user typed it, named in ``workbench check <scenario>``.
+    shown : int, optional
+        Most notes printed whole.
+
+    Returns
+    -------
+    list of str
+        Empty when no note is left to print.
+
+    Examples
+    --------
+    >>> for x in input_note_lines(["met farm: complete hourly record 2016 to 2017",
+    ...                            "met mere: 168 missing hours in 1 gap"], scenario="s.toml"):
+    ...     print(x)
+    notes on the inputs (report.html, "Input rows"; provenance.json, input_notes;
+      workbench check s.toml):
+      - met mere: 168 missing hours in 1 gap
+    >>> input_note_lines(["a", "b", "c"], shown=1)[-1]
+    '  and 2 more: report.html ("Input rows"), provenance.json (input_notes)'
+    """
+    from .io.metgaps import COMPLETE_RECORD
+    from .report_network import NETWORK_SITES, grouped_free_notes
+    from .runpaths import shown_text
+    shown = INPUT_NOTES_SHOWN if shown is None else max(1, int(shown))
+    min_sites = NETWORK_SITES if min_sites is None else min_sites
+    kept = [" ".join(shown_text(str(n), base).split()) for n in notes]
+    kept = list(dict.fromkeys(n for n in kept
+                              if n and not re.match(r"met \S+: " + COMPLETE_RECORD + " ", n)))
+    ids = [str(s) for s in site_ids]
+    if kept and len(ids) > min_sites:
+        kept = grouped_free_notes(kept, ids)
+    if not kept:
+        return []
+    where = 'report.html, "Input rows"; provenance.json, input_notes'
+    check = f"; workbench check {scenario}" if scenario else ""
+    lines = [f"notes on the inputs ({where}{check}):"] + ["  - " + n for n in kept[:shown]]
+    if len(kept) > shown:
+        lines.append(f"  and {len(kept) - shown} more: report.html (\"Input rows\"), "
+                     "provenance.json (input_notes)"
+                     + (f", workbench check {scenario}" if scenario else ""))
+    return console_lines(lines)
 
 
 def uncertainty_lines(out, result) -> list[str]:

@@ -37,7 +37,8 @@ REQUIRED_NAMES = tuple(k for k, (_, req, _) in MET_VARIABLES.items() if req)
 from .metdegf import fahrenheit_days, fahrenheit_edges
 # the notes on missing hours (defined here before)
 from .metgaps import (CLOCK_FORWARD_MAX_PER_YEAR, CLOCK_FORWARD_MONTHS,  # noqa: F401
-                      CLOCK_FORWARD_UTC_WINDOW, clock_forward_hint, describe_gaps)
+                      CLOCK_FORWARD_UTC_WINDOW, COMPLETE_RECORD, clock_forward_hint,
+                      describe_gaps)
 # the gauge comparison (defined here before)
 from .metgauge import (DEPTH_SLIPS, SLIP_MIN_SAMPLES, SLIP_RTOL, SLIP_SHARE,  # noqa: F401
                        gauge_comparison, gauge_slip_notes)

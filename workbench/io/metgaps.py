@@ -8,6 +8,13 @@ from __future__ import annotations
 import numpy as np
 
 
+#: The words of a site's note when its met record has no missing hour
+#: (``met farm: complete hourly record 2016-01-01T00:00 to ...``): a note that nothing is
+#: amiss, which the end of ``workbench run`` leaves out of its input notes
+#: (:func:`workbench.cli_status.input_note_lines`).
+COMPLETE_RECORD = "complete hourly record"
+
+
 def describe_gaps(met) -> list[str]:
     """Text notes on missing hours per site between its first and last row."""
     notes = []
@@ -22,7 +29,7 @@ def describe_gaps(met) -> list[str]:
         inner = ~p[a:b + 1]
         n_miss = int(inner.sum())
         if n_miss == 0:
-            notes.append(f"met {site}: complete hourly record {str(times[a])[:16]} to {str(times[b])[:16]} UTC")
+            notes.append(f"met {site}: {COMPLETE_RECORD} {str(times[a])[:16]} to {str(times[b])[:16]} UTC")
             continue
         edges = np.diff(np.concatenate([[0], inner.astype(int), [0]]))
         starts, ends = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
