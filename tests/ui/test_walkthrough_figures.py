@@ -94,6 +94,14 @@ def test_bracket_line_names_the_nh3_basis_under_the_net_exchange(app):
         assert only == pytest.approx(shown + dep - net, abs=0.15)
         # on one basis the measured split lies within its bracket
         assert low - 0.05 <= only <= high + 0.05, text
+        # pair_split = "all_gas": the bars' pairs as the bracket's all-gas end, so on the
+        # bracket's basis (NH3 deposition only) the two are one number (docs/budget.md)
+        app.controls["budget.pair_split"].value = "all_gas"
+        text = app.bracket_w.value
+        assert "(pairs all as gas, NH3 net of its emission; " in text
+        only = re.search(r"; (-?[\d,.]+) with NH3 deposition only\)", text).group(1)
+        assert f" to {only} (all as gas)" in text, text
     finally:
+        app.controls["budget.pair_split"].value = "measured"
         app.controls["dry.nh3_treatment"].value = "deposition_only"
     assert app.bracket_w.value == plain

@@ -109,6 +109,7 @@ def bracket_line(years: xr.Dataset, derived, site, receptor, unit="kg/ha/yr",
     # the bars' dry N under the net NH3 exchange and the bracket's NH3 deposition only
     # are two bases: each number says its own (555.0 all as gas beside 554.6 read as if
     # the measured split lay outside the bracket)
+    k = None
     if net:         # decimals enough to tell the two apart (a 0.3 % emission read 7.4, 7.4)
         only = b["shown"] + b["nh3_net_gap"]
         k = _decimals(b["shown"], only)
@@ -135,8 +136,9 @@ def bracket_line(years: xr.Dataset, derived, site, receptor, unit="kg/ha/yr",
                    "deposition, so 0 here",
             "some": "; in the years of the bulk collector caught by it: particles are "
                     "counted in the wet deposition there"}.get(caught, "")
-    return (f"{head}; gas/particle bracket {_fmt(b['all_particle'])} (each HNO3/pNO3 and "
-            f"NH3/pNH4 pair all as particle{why0}) to {_fmt(b['all_gas'])} (all as gas){part}{basis}: "
+    ends = [_fmt(b[e]) if k is None else _fmt(b[e], k) for e in ("all_particle", "all_gas")]
+    return (f"{head}; gas/particle bracket {ends[0]} (each HNO3/pNO3 and "
+            f"NH3/pNH4 pair all as particle{why0}) to {ends[1]} (all as gas){part}{basis}: "
             "filters split ammonium nitrate between the phases, and the gas deposits "
             "faster.")
 
