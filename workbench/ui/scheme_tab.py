@@ -16,6 +16,7 @@ import html
 import ipywidgets as widgets
 
 from . import figures, figures_schemes as fs
+from .figures_curves import fitted_layout
 from .controls import figure_widget, refresh, table_html
 from .figure_open import page
 from ..species import AIR_GASES
@@ -105,8 +106,7 @@ class SchemeTab:
 
     def _sized(self, spec):
         """`spec` at the tab's width, its title fitted to it as the explorer's other
-        figures (:func:`workbench.ui.apps.fitted_layout`)."""
-        from .apps import fitted_layout
+        figures (:func:`workbench.ui.figures_curves.fitted_layout`)."""
         return {**spec, "layout": fitted_layout(spec.get("layout", {}), self.width)}
 
     def draw(self, force=False):
