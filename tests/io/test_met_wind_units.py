@@ -82,3 +82,24 @@ def test_potential_wind_factor_by_hand():
     want = np.log(600.0) / np.log(60.0) * np.log(10 / 0.03) / np.log(2000.0)
     assert potential_wind_factor(6.0, 0.1, 0.0) == pytest.approx(want, rel=1e-12)
     assert potential_wind_factor(10.0, 0.03, 0.0) == pytest.approx(1.0)
+
+
+def test_potential_wind_just_above_the_threshold_reads_above_it():
+    """A potential wind of 6.53 m/s (the demo grid's urban cell) read "6.5 m/s ...
+    expected below 6.5 m/s": the note now writes the digits that show it above (the
+    rule, 6.5 m/s, is unchanged)."""
+    from workbench.io.metwind import (POTENTIAL_MEDIAN_MAX, mast_roughness,
+                                      potential_wind_factor, wind_unit_findings)
+    cat = read_sites(DEMO / "sites.toml")
+    site = cat["farm"]
+    _, z0, d = mast_roughness([site])
+    factor = float(potential_wind_factor(site.wind_height_m, z0[0], d[0]))
+    u = np.full(800, 6.53 / factor)                 # 800 h (a month is 720), no u*
+    _, found = wind_unit_findings(u, None, np.zeros(800, int), ["farm"], cat)
+    assert len(found) == 1
+    note = found[0][1]
+    assert ", 6.53 m/s as the potential wind" in note, note
+    assert f"expected below {POTENTIAL_MEDIAN_MAX:g} m/s" in note      # the rule as before
+    # a value well above keeps one decimal
+    _, found = wind_unit_findings(u * 7.04 / 6.53, None, np.zeros(800, int), ["farm"], cat)
+    assert ", 7.0 m/s as the potential wind" in found[0][1]

@@ -93,6 +93,21 @@ def potential_wind_factor(z, z0, d):
             * np.log(OPEN_HEIGHT_M / OPEN_Z0_M) / np.log(BLEND_HEIGHT_M / OPEN_Z0_M))
 
 
+def above_text(value, limit, least=1, most=6):
+    """`value` written with the fewest decimals (from `least` to `most`) at which it reads
+    above `limit` when it is above it, so that a note does not read "6.5 m/s ... expected
+    below 6.5 m/s" [the unit of both].
+
+    >>> above_text(6.53, 6.5), above_text(6.5004, 6.5), above_text(7.04, 6.5), above_text(5.0, 6.5)
+    ('6.53', '6.5004', '7.0', '5.0')
+    """
+    for k in range(least, most + 1):
+        text = f"{value:.{k}f}"
+        if not value > limit or float(text) > limit:
+            return text
+    return repr(float(value))
+
+
 def _nearest_unit(ratio):
     """The unit whose factor is nearest `ratio` in log terms, and its factor."""
     name = min(SLIP_FACTORS, key=lambda k: abs(np.log(ratio / SLIP_FACTORS[k])))
@@ -159,7 +174,7 @@ def wind_unit_findings(u, ustar, codes, names, catalogue, header="column wind_sp
         kn, kmh = SLIP_FACTORS["knots"], SLIP_FACTORS["km/h"]
         out.append((int(s), (
             f"{header} at site {names[s]} has a median of {med[s]:.1f} m/s at {z[s]:g} m over "
-            f"{mast[s]}, {pot[s]:.1f} m/s as the potential wind (10 m over open land, "
+            f"{mast[s]}, {above_text(pot[s], POTENTIAL_MEDIAN_MAX)} m/s as the potential wind (10 m over open land, "
             f"Wieringa 1986), expected below {POTENTIAL_MEDIAN_MAX:g} m/s but on exposed "
             f"coasts, islands and summits: knots (x {kn:.2f}: median {med[s] / kn:.1f} m/s) "
             f"or km/h (x {kmh:.1f}: {med[s] / kmh:.1f} m/s) under an m/s header? no "

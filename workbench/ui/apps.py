@@ -20,7 +20,8 @@ from .controls import fit_options_width
 from .controls import (Progress, SavedText, caution_box, figure_widget, make_control,
                        open_with_progress, refresh, set_quietly, table_html, wrap_labels_style)
 from .figure_open import NARROW_OUTPUT_PX, PAGE_FIGURE_WIDTH, page  # noqa: F401
-from .figure_period import fit_title, span_label
+from .figure_period import span_label
+from .figures_curves import fitted_layout
 from .scheme_tab import SchemeTab
 from .session import Session, output_dir
 from .palette import TEMPLATE
@@ -64,22 +65,6 @@ def column_layouts() -> dict:
             "path": widgets.Layout(width=f"{ASSUMPTIONS_WIDTH - 20}px", max_width="100%")}
 #: Gases whose resistances may be shown.
 GASES = ("SO2", "HNO3", "NH3", "NO2")
-
-
-def fitted_layout(layout: dict, width: int) -> dict:
-    """`layout` at `width` [px] with its title fitted to that width
-    (:func:`~workbench.ui.figure_period.fit_title`) and a top margin that holds its
-    lines (:func:`~workbench.ui.figures.title_room`): the velocity and resistance tabs'
-    titles ran past the 520 px figure's edge ("... · conifer_forest · 2023" cut)."""
-    out = {**layout, "width": width}
-    title = (layout.get("title") or {}).get("text")
-    if title:
-        fitted = fit_title(title, width)
-        if fitted != title:
-            margin = dict(layout.get("margin") or {})
-            margin["t"] = max(margin.get("t", 0), figures.title_room(fitted))
-            out.update(title={**layout["title"], "text": fitted}, margin=margin)
-    return out
 
 
 class SiteExplorer(SavedText, widgets.VBox):

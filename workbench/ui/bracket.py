@@ -14,6 +14,7 @@ import numpy as np
 import xarray as xr
 
 from .summaries import _fmt, to_unit, total_rates
+from .summaries_change import _decimals
 
 #: The variables of ``Result.derived`` that hold the bracket [kg N/ha per period].
 BRACKET_VARS = ("dry_N_all_particle_kg_ha", "dry_N_all_gas_kg_ha")
@@ -45,8 +46,10 @@ def dry_n_bracket(years: xr.Dataset, derived: xr.Dataset | None, site, receptor,
     -------
     dict or None
         ``shown``, ``all_particle``, ``all_gas`` [unit, mean yearly rate; NaN where not
-        computed] and ``computed`` (bool: the bracket has a value in every period);
-        None when the run carries no bracket.
+        computed], ``computed`` (bool: the bracket has a value in every period) and
+        ``nh3_net_gap`` (NH3 deposition only minus net [unit, mean yearly rate]: NaN
+        where the bars count NH3 as deposition only, as the bracket does); None when the
+        run carries no bracket.
     """
     if derived is not None and not set(years["period"].values.astype(str)) <= set(
             derived["period"].values.astype(str)):
@@ -69,7 +72,24 @@ def dry_n_bracket(years: xr.Dataset, derived: xr.Dataset | None, site, receptor,
         computed &= bool(np.isfinite(rate).all())
         out[name] = float(np.nanmean(rate)) if np.isfinite(rate).any() else float("nan")
     out["computed"] = computed
+    out["nh3_net_gap"] = _nh3_net_gap(years, site, receptor, periods, unit)
     return out
+
+
+def _nh3_net_gap(years: xr.Dataset, site, receptor, periods, unit) -> float:
+    """Mean yearly NH3 deposition-only figure minus the net exchange over `periods`
+    [unit]: what the dry N of the bars lacks against the bracket's basis (the brackets
+    deposit NH3 with the deposition-only Vd and no emission term, docs/budget.md "NH3:
+    net exchange beside deposition only"); NaN where the bars use no net NH3."""
+    if (years.attrs.get("nh3_figure") != "net" or not periods
+            or any(v not in years.variables for v in ("nh3_net", "nh3_deposition_only"))):
+        return float("nan")
+    from .summaries_budget import _picker
+    pick = _picker(years, site, receptor)
+    keep = np.isin(pick("period").astype(str), [str(p) for p in periods])
+    gap = ((to_unit(pick("nh3_deposition_only"), "N", unit)
+            - to_unit(pick("nh3_net"), "N", unit)) * pick("annual_factor"))[keep]
+    return float(np.nanmean(gap)) if np.isfinite(gap).any() else float("nan")
 
 
 def bracket_line(years: xr.Dataset, derived, site, receptor, unit="kg/ha/yr",
@@ -85,7 +105,19 @@ def bracket_line(years: xr.Dataset, derived, site, receptor, unit="kg/ha/yr",
         return ""
     shown = {"measured": "as measured", "all_gas": "pairs all as gas",
              "all_particle": "pairs all as particle"}.get(split, split)
-    head = f"Dry N {_fmt(b['shown'])} {unit} ({shown})"
+    net = np.isfinite(b["nh3_net_gap"])
+    # the bars' dry N under the net NH3 exchange and the bracket's NH3 deposition only
+    # are two bases: each number says its own (555.0 all as gas beside 554.6 read as if
+    # the measured split lay outside the bracket)
+    k = None
+    if net:         # decimals enough to tell the two apart (a 0.3 % emission read 7.4, 7.4)
+        only = b["shown"] + b["nh3_net_gap"]
+        k = _decimals(b["shown"], only)
+        head = (f"Dry N {_fmt(b['shown'], k)} {unit} ({shown}, NH3 net of its emission; "
+                f"{_fmt(only, k)} with NH3 deposition only)")
+    else:
+        head = f"Dry N {_fmt(b['shown'])} {unit} ({shown})"
+    basis = ", with NH3 as deposition only (the bracket has no emission term)" if net else ""
     if not np.isfinite(b["all_gas"]) or not np.isfinite(b["all_particle"]):
         gone = _unmeasured_members(years, site, receptor)
         lost = _unmeasured_members(years, site, receptor, "every value masked")
@@ -104,8 +136,9 @@ def bracket_line(years: xr.Dataset, derived, site, receptor, unit="kg/ha/yr",
                    "deposition, so 0 here",
             "some": "; in the years of the bulk collector caught by it: particles are "
                     "counted in the wet deposition there"}.get(caught, "")
-    return (f"{head}; gas/particle bracket {_fmt(b['all_particle'])} (each HNO3/pNO3 and "
-            f"NH3/pNH4 pair all as particle{why0}) to {_fmt(b['all_gas'])} (all as gas){part}: "
+    ends = [_fmt(b[e]) if k is None else _fmt(b[e], k) for e in ("all_particle", "all_gas")]
+    return (f"{head}; gas/particle bracket {ends[0]} (each HNO3/pNO3 and "
+            f"NH3/pNH4 pair all as particle{why0}) to {ends[1]} (all as gas){part}{basis}: "
             "filters split ammonium nitrate between the phases, and the gas deposits "
             "faster.")
 

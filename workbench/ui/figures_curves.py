@@ -11,6 +11,7 @@ import pandas as pd
 import plotly.graph_objects as go
 from plotly.subplots import make_subplots
 
+from .figure_period import fit_title
 from .figures_budget import ELEMENTS, HEIGHT, PANEL_GAP, wrap_text
 from .palette import OKABE_ITO, PATHWAY_COLOURS, TEMPLATE
 from .summaries import axis_text
@@ -36,6 +37,22 @@ def title_room(title: str) -> int:
     (plotly centres the title in the margin: its default 100 px holds two lines, and a
     third ran into "sulfur")."""
     return 100 + 50 * max(0, str(title).count("<br>") - 1)
+
+
+def fitted_layout(layout: dict, width: int) -> dict:
+    """`layout` at `width` [px] with its title fitted to that width
+    (:func:`~workbench.ui.figure_period.fit_title`) and a top margin that holds its
+    lines (:func:`title_room`): the velocity and resistance tabs'
+    titles ran past the 520 px figure's edge ("... · conifer_forest · 2023" cut)."""
+    out = {**layout, "width": width}
+    title = (layout.get("title") or {}).get("text")
+    if title:
+        fitted = fit_title(title, width)
+        if fitted != title:
+            margin = dict(layout.get("margin") or {})
+            margin["t"] = max(margin.get("t", 0), title_room(fitted))
+            out.update(title={**layout["title"], "text": fitted}, margin=margin)
+    return out
 
 
 #: Statuses of a total that may be ranked and read as whole.

@@ -14,6 +14,7 @@ import pandas as pd
 
 from ..percent import no_percent_reason, percent_change
 from ..periods import MONTH_SEASON, SEASON_NAMES
+from .figure_period import with_period
 from .figures import from_spec, subplot_layout
 from .palette import TEMPLATE
 
@@ -61,13 +62,15 @@ def seasonal_vd(vd_by_scheme: dict, site, receptor, gases=GASES) -> pd.DataFrame
     return pd.DataFrame(rows, columns=["scheme", "season", "species", "vd_cm_s", "hours"])
 
 
-def scheme_vd_spec(vd_by_scheme: dict, site, receptor, gases=GASES) -> dict:
+def scheme_vd_spec(vd_by_scheme: dict, site, receptor, gases=GASES, period="") -> dict:
     """Spec of grouped horizontal bars: mean Vd by gas, one panel per season, one colour
     per scheme.
 
     The gases stand on the shared y axis, read level (upright bars in four panels of a
     660 px figure left each panel about 130 px for five names, and plotly stood them
-    on end), the first gas on top.  Parameters as :func:`seasonal_vd`.
+    on end), the first gas on top.  Parameters as :func:`seasonal_vd`; `period` the
+    years the velocities cover, for the title (``2021``, ``2019–2021``:
+    :func:`workbench.ui.figure_period.span_label`), as the other site figures write it.
     """
     t = seasonal_vd(vd_by_scheme, site, receptor, gases)
     base, axes = subplot_layout(1, len(SEASON_NAMES), shared_yaxes=True,
@@ -93,11 +96,12 @@ def scheme_vd_spec(vd_by_scheme: dict, site, receptor, gases=GASES) -> dict:
         layout[yname].update(autorange="reversed", tickangle=0)
     layout[axes[0][1]]["title"] = {"text": "gas"}
     layout["annotations"] = layout.get("annotations", []) + [{
-        "text": "mean Vd (cm s-1)", "xref": "paper", "yref": "paper", "x": 0.5, "y": 0,
+        "text": "mean Vd [cm s-1]", "xref": "paper", "yref": "paper", "x": 0.5, "y": 0,
         "yshift": -40, "showarrow": False, "xanchor": "center", "yanchor": "top"}]
     layout.update(barmode="group", height=HEIGHT, legend={"title": {"text": "gas scheme"}},
                   margin={"b": 70},
-                  title={"text": f"{site}, {receptor}:<br>deposition velocity by gas scheme"})
+                  title={"text": with_period(f"Deposition velocity by gas scheme · {site} · "
+                                             f"{receptor}", period)})
     return {"data": data, "layout": layout}
 
 
@@ -141,14 +145,15 @@ def budget_difference_spec(table: pd.DataFrame, site, receptor, period="span") -
             for s in wide.columns if s != "difference"]
     return {"data": data, "layout": {
         "barmode": "group", "height": HEIGHT,
-        "title": {"text": f"{site}, {receptor}:<br>dry deposition by gas scheme ({period})"},
+        "title": {"text": with_period(f"Dry deposition by gas scheme · {site} · {receptor}",
+                                      "whole span" if str(period) == "span" else str(period))},
         "yaxis": {"title": {"text": "kg S or N ha-1 yr-1"}},
         "legend": {"title": {"text": "gas scheme"}}}}
 
 
-def scheme_vd(vd_by_scheme: dict, site, receptor, gases=GASES, template=TEMPLATE):
+def scheme_vd(vd_by_scheme: dict, site, receptor, gases=GASES, template=TEMPLATE, period=""):
     """The figure of :func:`scheme_vd_spec` (plotly Figure)."""
-    return from_spec(scheme_vd_spec(vd_by_scheme, site, receptor, gases), template)
+    return from_spec(scheme_vd_spec(vd_by_scheme, site, receptor, gases, period), template)
 
 
 def budget_difference_figure(table, site, receptor, period="span", template=TEMPLATE):
@@ -299,10 +304,12 @@ def spread_sentence(table: pd.DataFrame, unit="kg/ha/yr") -> str:
 NO_PERCENT_TEXT = "no %"
 
 
-def budget_change_spec(table: pd.DataFrame, site, receptor, unit="kg/ha/yr") -> dict:
+def budget_change_spec(table: pd.DataFrame, site, receptor, unit="kg/ha/yr",
+                       period="") -> dict:
     """Spec of horizontal bars: budget of scheme B minus scheme A, each total and dry
     component [unit], with the percentage of A beside each bar (``no %`` where A is 0,
-    below 0 or missing, the reason in the bar's hover)."""
+    below 0 or missing, the reason in the bar's hover); `period` the years of the
+    table's means, for the title (as :func:`scheme_vd_spec`)."""
     from .summaries import axis_text
     a, b = _scheme_columns(table)
     rows = list(table.index)[::-1]                        # the totals on top
@@ -323,7 +330,8 @@ def budget_change_spec(table: pd.DataFrame, site, receptor, unit="kg/ha/yr") -> 
                                f"%{{customdata[2]}}; difference %{{x:.3g}} (%{{customdata[3]}})<extra></extra>")}
     return {"data": [trace], "layout": {
         "height": 60 + 26 * len(rows), "showlegend": False,
-        "title": {"text": f"{site}, {receptor}:<br>budget under {b} minus under {a}"},
+        "title": {"text": with_period(f"Budget under {b} minus under {a} · {site} · "
+                                      f"{receptor}", period)},
         "xaxis": {"title": {"text": axis_text(unit)}, "zeroline": True,
                   "range": label_room(x)},
         "margin": {"l": 90}}}

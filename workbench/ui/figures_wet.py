@@ -13,7 +13,7 @@ from ..wet.qa import tier_limit
 from .figure_period import bounds_label, with_period
 from .figures import from_spec, legend_height, legend_lines
 from .palette import ENVELOPE_FILL, OKABE_ITO, SAMPLE_STATUS_STYLE, TEMPLATE
-from .summaries import in_span, reason_counts
+from .summaries import excluded_samples, in_span, reason_counts
 
 #: Points along the envelope's edges (log-spaced in CE + AN).
 ENVELOPE_POINTS = 400
@@ -221,11 +221,16 @@ def excluded_by_reason_spec(screened, site=None, start=None, end=None) -> dict:
     t = reason_counts(screened, site, start, end) if screened is not None else reason_counts(None)
     reasons = list(dict.fromkeys(t["reason"])) if len(t) else []
     most = int(t.groupby("reason")["samples"].sum().max()) if len(t) else 0
+    # each status named with its number of samples (a sample with two reasons counted
+    # once): a legend entry "flagged" without a bar read as if some were flagged
+    per = (excluded_samples(screened, site, start=start, end=end)["status"].value_counts()
+           if screened is not None else {})
     data = []
     for st in ("excluded", "flagged"):
         g = t[t["status"] == st].set_index("reason")["samples"] if len(t) else None
         counts = [int(g.get(r, 0)) if g is not None else 0 for r in reasons]
-        data.append({"type": "bar", "y": reasons, "x": counts, "orientation": "h", "name": st,
+        data.append({"type": "bar", "y": reasons, "x": counts, "orientation": "h",
+                     "name": f"{int(per.get(st, 0))} {st}",
                      "marker": {"color": SAMPLE_STATUS_STYLE[st][0]},
                      "hovertemplate": f"%{{y}}: %{{x}} samples {st}<extra></extra>"})
     xaxis = {"title": {"text": "samples"}, "rangemode": "tozero"}
@@ -257,6 +262,7 @@ def excluded_by_reason(screened, site=None, start=None, end=None, template=TEMPL
     Returns
     -------
     plotly.graph_objects.Figure
-        Two bar traces: excluded, flagged.
+        Two bar traces, named with their samples' number: ``12 excluded``,
+        ``0 flagged`` (a sample with two reasons counted once).
     """
     return from_spec(excluded_by_reason_spec(screened, site, start, end), template)

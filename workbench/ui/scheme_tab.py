@@ -16,6 +16,7 @@ import html
 import ipywidgets as widgets
 
 from . import figures, figures_schemes as fs
+from .figures_curves import fitted_layout
 from .controls import figure_widget, refresh, table_html
 from .figure_open import page
 from ..species import AIR_GASES
@@ -104,7 +105,9 @@ class SchemeTab:
         return ""
 
     def _sized(self, spec):
-        return {**spec, "layout": {**spec.get("layout", {}), "width": self.width}}
+        """`spec` at the tab's width, its title fitted to it as the explorer's other
+        figures (:func:`workbench.ui.figures_curves.fitted_layout`)."""
+        return {**spec, "layout": fitted_layout(spec.get("layout", {}), self.width)}
 
     def draw(self, force=False):
         """Compute the other scheme (cached by the session) and update the page."""
@@ -113,6 +116,7 @@ class SchemeTab:
         if not force and key == self._drawn:
             return
         site, rec, unit = a.site, a.receptor_w.value, a.unit_w.value
+        years = a._span()                           # "2021", "2019–2021": in the titles
         self.runs = a.session.run_schemes(a.settings, site, *a.years, rec, chosen=a.result)
         chosen, *others = list(self.runs)          # the chosen scheme first
         self.chosen_w.value = (f"<p style='max-width:{self.width}px'>"
@@ -125,12 +129,12 @@ class SchemeTab:
         else:
             start, end = a.session.bounds(*a.years)
             vd_spec = fs.scheme_vd_spec({s: fs.in_years(v, start, end) for s, v in vel.items()},
-                                        site, rec)
+                                        site, rec, period=years)
         refresh(self.figs["vd"], self._sized(vd_spec))
         self.table = fs.scheme_budget_table({s: r.years for s, r in self.runs.items()},
                                             site, rec, unit)
         refresh(self.figs["budget"], self._sized(fs.budget_change_spec(self.table, site, rec,
-                                                                        unit)))
+                                                                        unit, years)))
         sentence = fs.spread_sentence(self.table, unit)
         fixed = [g for g in AIR_GASES if g in a.settings.fixed_velocity]
         if fixed:       # a fixed Vd replaces both schemes: a 0 % there says nothing
