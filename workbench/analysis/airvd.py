@@ -43,6 +43,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..graph import stage
+from .drawratio import class_ratio, safe_ratio as _safe_ratio
 
 #: Factors k of the NH3 concentration the velocities are run on [1]: 9 from 0.5 to 2,
 #: equally spaced in log k (our choice: benchmarks/air_dependent_vd.py found a draw's
@@ -158,9 +159,6 @@ def dry_ratio_on_grid(pieces, vd_factor, air, vd_fill, basis, class_factor=None)
     """Draws of a dry component over the point, its velocity following the drawn air:
     (D, R, P) [1]; :func:`.drydraws.dry_ratio` with each row's part taken from the grid
     (`basis`, :meth:`AirVdPieces.basis`) instead of the point's."""
-    def _safe_ratio(num, den):        # as wetdraws._safe_ratio (no import: no cycle)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            return np.where(den != 0, num / np.where(den != 0, den, 1.0), 0.0)
     a = pieces.contrib
     n, n_p, n_r = a.shape
     phi = pieces.filled.reshape(n, -1)
@@ -176,15 +174,8 @@ def dry_ratio_on_grid(pieces, vd_factor, air, vd_fill, basis, class_factor=None)
     ratio = np.maximum(1.0 + _safe_ratio(drawn() - total, total), 0.0).reshape(-1, n_p, n_r)
     if not class_factor:
         return (vd_factor[:, :, None] * ratio).transpose(0, 2, 1)
-    klass = pieces.klass.astype(str)
-    out = np.stack([class_factor.get(klass[0, r], vd_factor) for r in range(n_r)], -1) * ratio
-    for r in np.flatnonzero(~(klass == klass[:1]).all(0)):
-        acc = np.zeros((air.shape[0], n_p))
-        for c in np.unique(klass[:, r]):
-            part = drawn(klass[:, r] == c).reshape(-1, n_p, n_r)[:, :, r]
-            acc += class_factor.get(c, vd_factor) * part
-        out[:, :, r] = np.maximum(_safe_ratio(acc, a[:, :, r].sum(0)), 0.0)
-    return out.transpose(0, 2, 1)
+    return class_ratio(pieces, ratio, vd_factor, class_factor,
+                       lambda of_class, r: drawn(of_class).reshape(-1, n_p, n_r)[:, :, r])
 
 
 def _overlap(start, end, start2, end2) -> np.ndarray:

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .wetdraws import _safe_ratio
+from .drawratio import class_ratio, safe_ratio as _safe_ratio
 
 
 def dry_ratio(pieces, vd_factor, air, vd_fill, class_factor=None):
@@ -40,19 +40,11 @@ def dry_ratio(pieces, vd_factor, air, vd_fill, class_factor=None):
     ratio = np.maximum(1.0 + _safe_ratio(dev, total), 0.0).reshape(-1, n_p, n_r)
     if not class_factor:
         return (vd_factor[:, :, None] * ratio).transpose(0, 2, 1)
-    # a factor per receptor, of its class; a receptor whose class changes among its
-    # samples (a site's own surface with a land-use history) sums F_c times the part of
-    # the samples of class c
-    klass = pieces.klass.astype(str)
-    out = np.stack([class_factor.get(klass[0, r], vd_factor) for r in range(n_r)], -1) * ratio
-    for r in np.flatnonzero(~(klass == klass[:1]).all(0)):
-        acc = np.zeros((air.shape[0], n_p))
-        for c in np.unique(klass[:, r]):
-            ac = a[:, :, r] * (klass[:, r] == c)[:, None]                  # (n, P)
-            part = ac.sum(0) + (air - 1.0) @ ac + (air * vd_fill) @ (pieces.filled[:, :, r] * ac)
-            acc += class_factor.get(c, vd_factor) * part
-        out[:, :, r] = np.maximum(_safe_ratio(acc, a[:, :, r].sum(0)), 0.0)
-    return out.transpose(0, 2, 1)
+
+    def part(of_class, r):                  # (D, P) the drawn sum of those rows [mol m-2]
+        ac = a[:, :, r] * of_class[:, None]                                 # (n, P)
+        return ac.sum(0) + (air - 1.0) @ ac + (air * vd_fill) @ (pieces.filled[:, :, r] * ac)
+    return class_ratio(pieces, ratio, vd_factor, class_factor, part)
 
 
 def nss_dry_draws(pieces, vd_factor, air, air_seasalt, vd_fill, class_factor=None):

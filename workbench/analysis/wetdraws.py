@@ -8,10 +8,7 @@ from __future__ import annotations
 
 import numpy as np
 
-
-def _safe_ratio(num, den):
-    with np.errstate(invalid="ignore", divide="ignore"):
-        return np.where(den != 0, num / np.where(den != 0, den, 1.0), 0.0)
+from .drawratio import safe_ratio as _safe_ratio
 
 
 def wet_ratios(wet, pwm_point, filled, gauge, depth, pconc, pwm_fill, n_periods, wanted,
