@@ -8,20 +8,7 @@ percent (Python's format, common practice).
 """
 from __future__ import annotations
 
-import re
-from pathlib import Path
-
-DOC = Path(__file__).resolve().parents[1] / "docs" / "methods_uncertainty.md"
-
-
-def _flat_section(title: str, next_title: str) -> str:
-    text = DOC.read_text(encoding="utf-8")
-    a = text.index(title)
-    return re.sub(r"\s+", " ", text[a:text.index(next_title, a)])
-
-
-FARM = ("### A wide exceedance range: the demo's farm (measured)",
-        "### The net NH3 exchange (bidirectional)")
+from doc_sections import FARM, flat_section as _flat_section
 
 
 def test_the_95_percent_at_other_numbers_of_draws(uncertainty_figures, farm_span):
