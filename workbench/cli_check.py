@@ -131,7 +131,7 @@ def inputs_console_lines(inputs) -> list[str]:
     if paths:
         out += ["", "files (in full):"] + [f"  {f}" for f in paths]
     if not reasons.empty:
-        out += ["", "reasons (rows of a file with each reason, and their lines):"]
+        out += ["", "reasons:"]
         out += console_lines(
             f"  {short[str(f)]}: {int(n)} row{'s' if int(n) != 1 else ''} {status}"
             + (f", {lines}" if str(lines) else "") + f": {reason}"
