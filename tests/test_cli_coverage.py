@@ -23,7 +23,7 @@ def _span(path, start, end, resolution="month"):
 def test_check_warns_when_the_span_holds_none_of_the_inputs(tmp_path, capsys):
     sc = _span(tb._write(tmp_path), "2019-01-01", "2020-01-01", "year")
     assert main(["check", str(sc), "--quiet"]) == 0
-    out = capsys.readouterr().out
+    out = " ".join(capsys.readouterr().out.split())  # the words, lines unwrapped (console_lines)
     for role in ("precipitation", "air", "met"):
         assert (f"warning: the reporting span 2019-01-01 to 2020-01-01 holds none of the "
                 f"{role} (") in out
@@ -45,7 +45,7 @@ def test_run_says_every_budget_is_missing(tmp_path, capsys):
 def test_partly_covered_span_gets_a_note_and_the_counts(tmp_path, capsys):
     sc = _span(tb._write(tmp_path), "2020-10-01", "2021-03-01")
     assert main(["check", str(sc), "--quiet"]) == 0
-    out = capsys.readouterr().out
+    out = " ".join(capsys.readouterr().out.split())  # the words, lines unwrapped (console_lines)
     assert "note: the met covers 2021-02-01 to 2021-03-01 UTC: periods before 2021-02-01 " \
         "lack it" in out
     assert out.rstrip().endswith("the scenario can be run")
@@ -57,7 +57,7 @@ def test_partly_covered_span_gets_a_note_and_the_counts(tmp_path, capsys):
 def test_covered_span_has_no_note(tmp_path, capsys):
     sc = tb._write(tmp_path)
     assert main(["check", str(sc), "--quiet"]) == 0
-    out = capsys.readouterr().out
+    out = " ".join(capsys.readouterr().out.split())  # the words, lines unwrapped (console_lines)
     assert "warning:" not in out and "note: the" not in out
 
 

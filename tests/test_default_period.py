@@ -103,7 +103,7 @@ def test_the_left_out_days_are_said_in_every_record_of_the_run(tail_run, capsys)
     assert said in (out / "report.html").read_text(encoding="utf-8")
     assert any(said in line for line in run_span_notes(scenario, result.table, None, study))
     assert main(["check", str(scenario), "--quiet"]) == 0
-    printed = capsys.readouterr().out
+    printed = " ".join(capsys.readouterr().out.split())  # the words, lines unwrapped (console_lines)
     assert "periods: 1 year period from 2021-01-01" in printed
     assert "note: " + said in printed
 

@@ -101,7 +101,7 @@ def test_run_folder_and_console_say_it(folder, tmp_path, capsys):
     from workbench.cli import main
     out = tmp_path / "run"
     run_grid(_scenario(folder), out, use_dask=False)
-    err = capsys.readouterr().err
+    err = " ".join(capsys.readouterr().err.split())  # the words, lines unwrapped (console_lines)
     assert "note: " + SAID in err
     with xr.open_dataset(out / "grid.nc") as ds:
         assert [str(p) for p in ds["period"].values] == ["2021"]
@@ -113,7 +113,7 @@ def test_run_folder_and_console_say_it(folder, tmp_path, capsys):
     assert main(["check", str(_scenario(folder)), "--quiet"]) == 0
     printed = capsys.readouterr().out
     assert "periods: 1 year period\n" in printed
-    assert "note: " + SAID in printed
+    assert "note: " + SAID in " ".join(printed.split())      # the words, unwrapped
 
 
 def test_an_end_given_keeps_the_days(folder, tmp_path, capsys):

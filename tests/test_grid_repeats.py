@@ -90,7 +90,7 @@ def test_exact_repeat_dropped_with_a_note_and_the_maps_of_the_grid_without_it(
                  "--in-process"]) == 0
     # blocks of 2 x 2 cells as dask tasks where dask is there: the blocks carry the kept steps
     assert main(["grid", str(twice), "--out", str(tmp_path / "b"), "--block", "2"]) == 0
-    err = capsys.readouterr().err
+    err = " ".join(capsys.readouterr().err.split())  # the words, lines unwrapped (console_lines)
     assert "10 repeated time steps dropped" in err and "note: " + note[0] in err
     assert bool(read) == (kind == "zarr")      # the time-chunked store: from the copy
     a, b = _maps(tmp_path / "a"), _maps(tmp_path / "b")

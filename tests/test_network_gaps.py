@@ -39,7 +39,7 @@ def run(scenario, tmp_path_factory):
 def test_check_names_the_weeks_without_samples(scenario, capsys):
     assert main(["check", str(scenario)]) == 0
     out = capsys.readouterr().out
-    notes = out.split("\nnotes:\n", 1)[1]
+    notes = " ".join(out.split("\nnotes:\n", 1)[1].split())     # the words, unwrapped
     assert re.search(r"precipitation v02-\w+: 14 weeks without samples \(1 gap; longest 14 "
                      r"weeks from 2017-03-", notes), notes
     assert re.search(r"air v03-\w+: 10 weeks without samples \(1 gap; longest 10 weeks "

@@ -294,7 +294,7 @@ def test_period_inside_a_year_is_said(site, capsys):
                     .replace('end = "2022-04-01"', 'end = "2022-03-14T00:00"')
                     .replace('"month"', '"year"'), encoding="utf-8")
     assert main(["check", str(week)]) == 0
-    out = capsys.readouterr().out
+    out = " ".join(capsys.readouterr().out.split())      # the words, lines unwrapped
     assert ("note: [period] start 2022-03-07 lies inside a year period: the budget covers "
             "whole year periods, from 2022-01-01 to 2023-01-01") in out
     assert "note: [period] end 2022-03-14 lies inside a year period" in out

@@ -145,11 +145,25 @@ def test_console_names_the_sites_whose_totals_are_not_complete(network, capsys):
     assert site_status_lines(result.table, min_sites=10) == []
 
 
+def _unwrapped(lines):
+    """Console lines wrapped by ``console_lines`` joined again: a line under a hanging
+    indent (two spaces deeper than its first line) goes on the line before."""
+    out, base = [], None
+    for ln in lines:
+        indent = len(ln) - len(ln.lstrip(" "))
+        if out and ln.strip() and indent == base + 2:
+            out[-1] += " " + ln.strip()
+        else:
+            out.append(ln)
+            base = indent
+    return out
+
+
 def test_check_groups_the_notes_of_a_network(network, capsys):
     scenario, *_ = network
     assert main(["check", str(scenario), "--quiet"]) == 0
     text = capsys.readouterr().out
-    notes = text[text.index("\nnotes:\n") + 1:].split("\n\n")[0].splitlines()[1:]
+    notes = _unwrapped(text[text.index("\nnotes:\n") + 1:].split("\n\n")[0].splitlines()[1:])
     assert len(notes) == 4, notes               # 9 full records in one line, v06 apart
     assert "the same at 8 more sites" in notes[0] and notes[1].startswith("  met v06")
     # the late start of v06 said per file, in weeks (52 weeks after 2016-01-07, the
@@ -166,7 +180,8 @@ def test_check_names_the_sites_a_data_file_does_not_hold(tmp_path, capsys):
     scenario = write_demo_subset(tmp_path / "in", ("ridge", "fell"), 2021, 2021)
     assert main(["check", str(scenario), "--quiet"]) == 0
     out = capsys.readouterr().out
-    line = [ln for ln in out.splitlines() if ln.startswith("note: 2 sites of sites.toml")]
+    line = [ln for ln in _unwrapped(out.splitlines())
+            if ln.startswith("note: 2 sites of sites.toml")]
     assert line == ["note: 2 sites of sites.toml with no record at all (in no data file): "
                     "mere, farm; their budgets will be missing"]
 

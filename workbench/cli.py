@@ -235,7 +235,7 @@ def cmd_demo(args) -> int:
     out = Path(args.out) if args.out else Path.cwd() / (
         "workbench-demo-" + dt.datetime.now().strftime("%Y%m%d-%H%M%S"))
     written, result, study = run_scenario(DEMO_SCENARIO, out, overwrite=False, quiet=args.quiet)
-    print(study.inputs.describe())
+    print(_inputs_text(study.inputs))         # fitted to 80 columns, as `check`
     print()
     if result.screened is not None:
         st = pd.Series(result.screened["status"].values.astype(str)).value_counts()

@@ -23,12 +23,13 @@ def cmd_check(args) -> int:
     if _check_grid_only(args.scenario):
         return 0
     prep = prepare(args.scenario, progress=_progress(args.quiet))
-    print(f"scenario: {prep.scenario.path}")
+    from .cli_status import console_lines
+    print(f"scenario: {prep.scenario.path}")         # a path is never broken
     print(_inputs_text(prep.study.inputs))
-    for line in absent_site_lines(prep.study.inputs):
+    for line in console_lines(absent_site_lines(prep.study.inputs)):
         print(line)
     print()
-    print(prep.describe())
+    print("\n".join(console_lines(prep.describe().splitlines())))
     return 0
 
 
@@ -56,16 +57,17 @@ def _check_grid_only(path) -> bool:
     grid = open_grid(paths["met"], paths["air"], paths["land_use"])
     p = sc.data["period"]
     periods = make_periods(grid, p["resolution"], p["start"], p["end"])
+    from .cli_status import console_lines
     print(f"scenario: {sc.path}")
-    print(describe(grid))
-    for note in grid.notes:
-        print(f"note: {note}")
-    print(f"periods: {len(periods)} {p['resolution']} period{'s' if len(periods) != 1 else ''}")
-    for note in span_notes(grid, p["start"], p["end"]):     # as `workbench check` of sites
-        print("note: " + note.removeprefix("period: "))
-    print("the grid files were read and checked (metadata, coordinates, times, land-use "
-          "classes; the hourly values are checked block by block as the run reads them): "
-          "run it with `workbench grid SCENARIO --out DIR`")
+    lines = [describe(grid)] + [f"note: {note}" for note in grid.notes]
+    lines.append(f"periods: {len(periods)} {p['resolution']} "
+                 f"period{'s' if len(periods) != 1 else ''}")
+    lines.extend("note: " + note.removeprefix("period: ")      # as `workbench check` of sites
+                 for note in span_notes(grid, p["start"], p["end"]))
+    lines.append("the grid files were read and checked (metadata, coordinates, times, "
+                 "land-use classes; the hourly values are checked block by block as the run "
+                 "reads them): run it with `workbench grid SCENARIO --out DIR`")
+    print("\n".join(console_lines(lines)))          # fitted to 80 columns
     return True
 
 
@@ -99,16 +101,65 @@ def absent_site_lines(inputs) -> list[str]:
 
 
 def _inputs_text(inputs) -> str:
-    """``inputs.describe()``; for a network of more than
-    :data:`workbench.report_network.NETWORK_SITES` sites with its closing notes grouped
-    by site (:func:`workbench.report_network.grouped_free_notes`: "met v01: complete
-    hourly record ... — the same at 21 more sites: ...")."""
+    """:func:`inputs_console_lines` as one text."""
+    return "\n".join(inputs_console_lines(inputs))
+
+
+def inputs_console_lines(inputs) -> list[str]:
+    """What was loaded (:meth:`workbench.io.inputs.Inputs.describe`) fitted to an
+    80-column terminal, for ``workbench check`` and ``workbench demo``: every line at
+    most :data:`workbench.cli_status.NOTE_WIDTH` characters but a file's path, which
+    stands once on a line of its own and is never broken.  The sites, the samples per
+    site and the notes are wrapped under a hanging indent
+    (:func:`workbench.cli_status.console_lines`); the table of rows per file names each
+    file by its short name (:func:`short_file_names`), the paths in full below it; the
+    reasons are one entry each, "file: rows status, lines: reason", wrapped.  For a
+    network of more than :data:`workbench.report_network.NETWORK_SITES` sites the
+    notes are grouped by site (:func:`workbench.report_network.grouped_free_notes`:
+    "met v01: complete hourly record ... — the same at 21 more sites: ...")."""
+    from .cli_status import console_lines
     from .report_network import NETWORK_SITES, grouped_free_notes
-    text = inputs.describe()
+    out = console_lines(inputs.loaded_lines())
+    summ = inputs.ledger.summary()
+    files = [str(f) for f in summ["file"]]
+    reasons = inputs.ledger.reasons()
+    short = short_file_names(files + [str(f) for f in reasons["file"]])
+    out += ["", "rows per file:"]
+    out += summ.assign(file=[short[f] for f in files]).to_string(index=False).splitlines()
+    paths = [f for f in dict.fromkeys(files + [str(f) for f in reasons["file"]])
+             if short[f] != f]
+    if paths:
+        out += ["", "files (in full):"] + [f"  {f}" for f in paths]
+    if not reasons.empty:
+        out += ["", "reasons:"]
+        out += console_lines(
+            f"  {short[str(f)]}: {int(n)} row{'s' if int(n) != 1 else ''} {status}"
+            + (f", {lines}" if str(lines) else "") + f": {reason}"
+            for f, status, reason, n, lines in reasons[
+                ["file", "status", "reason", "rows", "lines"]].itertuples(index=False))
     notes = list(inputs.ledger.notes)
-    ids = list(inputs.catalogue.ids)
-    block = "\nnotes:\n" + "\n".join(f"  {n}" for n in notes)
-    if len(ids) <= NETWORK_SITES or not notes or not text.endswith(block):
-        return text
-    return text[:-len(block)] + "\nnotes:\n" + "\n".join(
-        f"  {n}" for n in grouped_free_notes(notes, ids))
+    if notes:
+        if len(list(inputs.catalogue.ids)) > NETWORK_SITES:
+            notes = grouped_free_notes(notes, list(inputs.catalogue.ids))
+        out += ["", "notes:"] + console_lines(f"  {n}" for n in notes)
+    return out
+
+
+def short_file_names(paths) -> dict:
+    """Each path's shortest tail of parts that no other of `paths` ends with: its file
+    name where the names differ.
+
+    >>> short_file_names(["/d/a/air.csv", "/d/b/air.csv", "/d/met.csv"])
+    {'/d/a/air.csv': 'a/air.csv', '/d/b/air.csv': 'b/air.csv', '/d/met.csv': 'met.csv'}
+    """
+    from pathlib import PurePath
+    paths = list(dict.fromkeys(str(p) for p in paths))
+    parts = {p: PurePath(p).parts for p in paths}
+    out = {}
+    for p in paths:
+        for k in range(1, len(parts[p]) + 1):
+            tail = parts[p][-k:]
+            if not any(q != p and parts[q][-k:] == tail for q in paths):
+                break
+        out[p] = str(PurePath(*tail))
+    return out

@@ -446,6 +446,10 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
         raise ScenarioError("no [grid] section", file=sc.path, column="grid",
                             expected="a [grid] section with met, air and land_use paths")
     say = (lambda text: None) if quiet else (lambda text: print(text, file=sys.stderr))
+    from .cli_status import console_lines
+
+    def say_wrapped(text):          # a note, fitted to an 80-column terminal
+        say("\n".join(console_lines([text])))
     if workers or scheduler:
         use_dask = True
     elif use_dask is None:
@@ -462,18 +466,18 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
         # the end (an edit meanwhile is named in provenance.json, by content)
         read = {role: file_stamp(p) for role, p in paths.items()}   # None: open_grid says
         grid = open_grid(paths["met"], paths["air"], paths["land_use"])
-        say(describe(grid))
+        say_wrapped(describe(grid))
         if block is None:          # a block's memory: about the same for any record length
             block = default_block(len(grid.times))
         for note in grid.notes:
-            say(f"note: {note}")
+            say_wrapped(f"note: {note}")
         p = sc.data["period"]
         periods = make_periods(grid, p["resolution"], p["start"], p["end"])
         # the days of the record a default start or end leaves out, in the site run's
         # words (workbench.periods.excluded_record_notes): console, provenance, grid.nc
         left = span_notes(grid, p["start"], p["end"])
         for note in left:
-            say("note: " + note.removeprefix("period: "))
+            say_wrapped("note: " + note.removeprefix("period: "))
         grid.notes.extend(left)
         o = sc.options
         # inputs chunked across the blocks: a block-major scratch copy inside the
@@ -535,7 +539,7 @@ def run_grid(scenario_path, out, overwrite=False, quiet=False, block=None,
                                    out=folder.out, changed=changed,
                                    read={"scenario": sc.sha256, **read}))
         for note in missing:
-            say(f"note: {note}")
+            say_wrapped(f"note: {note}")
         try:
             prov["outputs"] = [GRID_FILE, "provenance.json"]
             # the checksum of grid.nc, for `workbench verify` (as a site run's outputs)

@@ -82,7 +82,29 @@ class Inputs:
                            air=cut(self.air, "period"), met=met)
 
     def describe(self) -> str:
-        """A plain-text account of what was loaded (sites, periods, rows)."""
+        """A plain-text account of what was loaded (sites, periods, rows): the lines of
+        :meth:`loaded_lines`, then the ledger's rows per file, reasons and notes
+        (``workbench check`` and ``workbench demo`` print it fitted to 80 columns:
+        :func:`workbench.cli_check.inputs_console_lines`)."""
+        out = self.loaded_lines()
+        out.append("")
+        out.append("rows per file:")
+        summ = self.ledger.summary()
+        out.append(summ.to_string(index=False))
+        reasons = self.ledger.reasons()
+        if not reasons.empty:
+            out.append("")
+            out.append("reasons:")
+            out.append(reasons.to_string(index=False))
+        if self.ledger.notes:
+            out.append("")
+            out.append("notes:")
+            out.extend(f"  {n}" for n in self.ledger.notes)
+        return "\n".join(out)
+
+    def loaded_lines(self) -> list[str]:
+        """The first part of :meth:`describe`, one line each: the sites (with their
+        declared changes), the samples and periods per site, the met hours."""
         out = [f"sites ({len(self.catalogue)}):"]
         for s in self.catalogue:
             rec = ", ".join(s.receptors) if s.receptors else "none"
@@ -106,20 +128,7 @@ class Inputs:
             t = self.met["time"].values
             out.append(f"met: {self.met.sizes['site']} sites x {self.met.sizes['time']} hours "
                        f"from {str(t[0])[:16]} to {str(t[-1])[:16]} UTC (end of hour)")
-        out.append("")
-        out.append("rows per file:")
-        summ = self.ledger.summary()
-        out.append(summ.to_string(index=False))
-        reasons = self.ledger.reasons()
-        if not reasons.empty:
-            out.append("")
-            out.append("reasons:")
-            out.append(reasons.to_string(index=False))
-        if self.ledger.notes:
-            out.append("")
-            out.append("notes:")
-            out.extend(f"  {n}" for n in self.ledger.notes)
-        return "\n".join(out)
+        return out
 
 
 def _hours(time, t0=None, t1=None):
