@@ -124,9 +124,10 @@ class CodedRows:
     @property
     def lines(self) -> np.ndarray:
         """Line number of each row in the file [-]."""
-        lengths = self._lengths()
-        start = np.repeat(self.run_line.astype(np.int64) - self.run_first, lengths)
-        return (start + np.arange(self.n)).astype(self._line_dtype)
+        out = np.repeat((self.run_line.astype(np.int64) - self.run_first)
+                        .astype(self._line_dtype), self._lengths())
+        out += np.arange(self.n, dtype=self._line_dtype)     # two arrays of the rows only
+        return out
 
     @property
     def site_codes(self) -> np.ndarray:
@@ -271,7 +272,7 @@ class Ledger:
     @classmethod
     def for_codes(cls, rows: CodedRows):
         """A ledger of one file's rows held as codes (for files of millions of rows)."""
-        return cls(parts=[rows] if len(rows.lines) else [])
+        return cls(parts=[rows] if len(rows) else [])
 
     def __add__(self, other: "Ledger") -> "Ledger":
         return Ledger(parts=self.parts + other.parts, notes=self.notes + other.notes,
