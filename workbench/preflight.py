@@ -13,6 +13,7 @@ import numpy as np
 import pandas as pd
 
 from .errors import ScenarioError, WorkbenchError
+from .io.common import release_free_memory
 
 #: Particle species a bulk collector's "wet" deposition already holds in part.
 BULK_PARTICLES = ("pSO4", "pNO3", "pNH4")
@@ -289,4 +290,5 @@ def prepare(scenario, progress=None) -> Prepared:
     catalogue, receptors = _surfaces(study, sc)
     periods, years = _periods(study, sc)
     _bulk_refusal(study, sc, catalogue)
+    release_free_memory()     # what the reading freed: not held through the blocks' threads
     return Prepared(sc, study, periods, years, receptors)

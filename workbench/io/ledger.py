@@ -13,9 +13,6 @@ codes.
 """
 from __future__ import annotations
 
-import dataclasses
-from dataclasses import dataclass
-
 import numpy as np
 import pandas as pd
 
@@ -31,32 +28,78 @@ def _empty_table() -> pd.DataFrame:
                          "reason": pd.Series(dtype=str)})
 
 
-@dataclass
-class CodedRows:
-    """The ledger rows of one file as codes.
+#: Rows compared at a time when the runs are found (bounds the scratch arrays) [-].
+RUN_SLICE = 1 << 20
 
-    Attributes
+
+def _run_starts(lines, *codes) -> np.ndarray:
+    """Positions of the rows that start a run: the first row, and each row whose line is
+    not the one before + 1 or whose code in any of `codes` differs from the row before [-].
+    Compared :data:`RUN_SLICE` rows at a time.
+
+    >>> _run_starts(np.array([2, 3, 4, 6, 7]), np.array([0, 0, 1, 1, 1])).tolist()
+    [0, 2, 3]
+    """
+    n = len(lines)
+    out = [np.zeros(min(n, 1), np.int64)]
+    for a in range(1, n, RUN_SLICE):
+        b = min(a + RUN_SLICE, n)
+        cut = lines[a:b] != lines[a - 1:b - 1] + 1
+        for c in codes:
+            cut |= c[a:b] != c[a - 1:b - 1]
+        out.append(np.flatnonzero(cut) + a)
+    return np.concatenate(out)
+
+
+def _shared(texts) -> np.ndarray:
+    """`texts` as an object array whose equal cells are one ``str`` (a row's site, status
+    and reason repeat over many rows: one object each instead of one a cell)."""
+    codes, uniq = pd.factorize(np.asarray(texts, dtype=object))
+    return np.asarray([str(u) for u in uniq] + [""], dtype=object)[codes]
+
+
+class CodedRows:
+    """The ledger rows of one file as codes, in runs.
+
+    The rows are given per row and held as runs of rows that share their site, reason
+    and rejection and whose lines step by 1 (an hourly met file of a network: a few runs
+    a site, about 20 bytes a run, where per-row codes took 13 bytes a row); the per-row
+    arrays are spelled out again only when asked for (:attr:`lines`, :attr:`site_codes`,
+    :attr:`reason_codes`, :attr:`rejected`).
+
+    Parameters
     ----------
     file : str
-    lines : ndarray of int
-        Line number of each row in the file.
-    site_codes : ndarray of int
-        Index of each row's site in `sites`.
-    sites : ndarray of str
-    reason_codes : ndarray of int
-        Index of each row's reason in `reasons` ("" = none).
-    reasons : ndarray of object
+    lines : array of int
+        Line number of each row in the file [-].
+    site_codes : array of int
+        Index of each row's site in `sites` [-].
+    sites : array of str
+    reason_codes : array of int
+        Index of each row's reason in `reasons` ("" = none) [-].
+    reasons : array of object
         The distinct "; "-joined reason texts.
-    rejected : ndarray of bool
+    rejected : array of bool
     """
 
-    file: str
-    lines: np.ndarray
-    site_codes: np.ndarray
-    sites: np.ndarray
-    reason_codes: np.ndarray
-    reasons: np.ndarray
-    rejected: np.ndarray
+    def __init__(self, file, lines, site_codes, sites, reason_codes, reasons, rejected):
+        self.file = str(file)
+        self.sites = np.asarray(sites, dtype=object)
+        self.reasons = np.asarray(reasons, dtype=object)
+        lines = np.asarray(lines)
+        site_codes, reason_codes = np.asarray(site_codes), np.asarray(reason_codes)
+        rejected = np.asarray(rejected, dtype=bool)
+        self.n = len(lines)
+        self._line_dtype = lines.dtype
+        first = _run_starts(lines, site_codes, reason_codes, rejected)
+        small = np.int32 if self.n < 2**31 else np.int64
+        #: Position of the first row of each run [-].
+        self.run_first = first.astype(small)
+        #: Line, site code, reason code and rejection of each run's first row.
+        self.run_line = lines[first]
+        self.run_site = site_codes[first].astype(np.int32)
+        self.run_reason = reason_codes[first].astype(np.int32)
+        self.run_rejected = rejected[first]
 
     @classmethod
     def from_rows(cls, file, lines, sites, reasons, rejected) -> "CodedRows":
@@ -67,47 +110,92 @@ class CodedRows:
                    np.asarray(s_names, dtype=object), r_codes.astype(np.int32),
                    np.asarray(r_names, dtype=object), np.asarray(rejected, dtype=bool))
 
+    def __len__(self):
+        return self.n
+
+    def _lengths(self) -> np.ndarray:
+        """Rows of each run [-]."""
+        return np.diff(np.r_[self.run_first.astype(np.int64), self.n])
+
+    def _spelled(self, per_run) -> np.ndarray:
+        """A value of each run, repeated on each of its rows."""
+        return np.repeat(per_run, self._lengths())
+
+    @property
+    def lines(self) -> np.ndarray:
+        """Line number of each row in the file [-]."""
+        out = np.repeat((self.run_line.astype(np.int64) - self.run_first)
+                        .astype(self._line_dtype), self._lengths())
+        out += np.arange(self.n, dtype=self._line_dtype)     # two arrays of the rows only
+        return out
+
+    @property
+    def site_codes(self) -> np.ndarray:
+        return self._spelled(self.run_site)
+
+    @property
+    def reason_codes(self) -> np.ndarray:
+        return self._spelled(self.run_reason)
+
+    @property
+    def rejected(self) -> np.ndarray:
+        return self._spelled(self.run_rejected)
+
+    def _run_status(self) -> np.ndarray:
+        """0 accepted, 1 flagged, 2 rejected, per run."""
+        has = (self.reasons != "")[self.run_reason]
+        return np.where(self.run_rejected, 2, has.astype(np.int8))
+
     def status(self) -> np.ndarray:
         """0 accepted, 1 flagged, 2 rejected, per row."""
-        has = (np.asarray(self.reasons, dtype=object) != "")[self.reason_codes]
-        return np.where(self.rejected, 2, has.astype(np.int8))
+        return self._spelled(self._run_status())
 
     def frame(self) -> pd.DataFrame:
         """The rows spelled out (columns ``file, line, site, status, reason``)."""
         return pd.DataFrame({"file": self.file, "line": np.asarray(self.lines, dtype=int),
-                             "site": np.asarray(self.sites, dtype=object)[self.site_codes]
-                             .astype(str),
+                             "site": self.sites[self.site_codes].astype(str),
                              "status": np.array(STATUSES, dtype=object)[self.status()],
-                             "reason": np.asarray(self.reasons, dtype=object)[self.reason_codes]
-                             .astype(str)})
+                             "reason": self.reasons[self.reason_codes].astype(str)})
 
     def counts(self) -> pd.DataFrame:
         """Rows per (status, reason text): columns ``file, status, reason, n``."""
-        key = self.status().astype(np.int64) * len(self.reasons) + self.reason_codes
-        n = np.bincount(key, minlength=3 * len(self.reasons))
+        key = self._run_status().astype(np.int64) * len(self.reasons) + self.run_reason
+        n = np.bincount(key, weights=self._lengths(), minlength=3 * len(self.reasons))
         k = np.flatnonzero(n)
         return pd.DataFrame({"file": self.file,
                              "status": np.array(STATUSES, dtype=object)[k // len(self.reasons)],
-                             "reason": np.asarray(self.reasons, dtype=object)[k % len(self.reasons)],
+                             "reason": self.reasons[k % len(self.reasons)],
                              "n": n[k].astype(np.int64)})
+
+    def with_reasons(self):
+        """Lines, status (0, 1, 2) and reason code of the rows with a reason [-]: the runs
+        with a reason spelled out, the others not."""
+        keep = (self.reasons != "")[self.run_reason]
+        lengths = self._lengths()[keep]
+        at = np.repeat(self.run_line[keep].astype(np.int64) - np.cumsum(np.r_[0, lengths[:-1]]),
+                       lengths) + np.arange(int(lengths.sum()))
+        return (at.astype(self._line_dtype), np.repeat(self._run_status()[keep], lengths),
+                np.repeat(self.run_reason[keep], lengths))
 
     def with_reason(self, lines, reason: str) -> "CodedRows":
         """These rows with `reason` added to those at `lines` (a rejected row stays
         rejected); self is not changed (ledgers added together share their parts)."""
-        sel = np.isin(self.lines, np.asarray(lines))
+        all_lines = self.lines
+        sel = np.isin(all_lines, np.asarray(lines))
         if not sel.any():
             return self
-        old = np.unique(self.reason_codes[sel])
-        texts = list(np.asarray(self.reasons, dtype=object))
+        codes = self.reason_codes
+        old = np.unique(codes[sel])
+        texts = list(self.reasons)
         remap = np.arange(len(texts))
         for c in old:
             new = reason if texts[c] == "" else texts[c] + "; " + reason
             if new not in texts:
                 texts.append(new)
             remap[c] = texts.index(new)
-        return dataclasses.replace(self, reasons=np.array(texts, dtype=object),
-                                   reason_codes=np.where(sel, remap[self.reason_codes],
-                                                         self.reason_codes))
+        return CodedRows(self.file, all_lines, self.site_codes, self.sites,
+                         np.where(sel, remap[codes], codes), np.array(texts, dtype=object),
+                         self.rejected)
 
 
 class Ledger:
@@ -148,7 +236,7 @@ class Ledger:
 
     def rows(self) -> int:
         """Number of rows accounted for."""
-        return int(sum(len(p.lines) if isinstance(p, CodedRows) else len(p) for p in self.parts))
+        return int(sum(len(p) for p in self.parts))
 
     @classmethod
     def for_rows(cls, file, lines, sites, reasons, rejected):
@@ -167,10 +255,11 @@ class Ledger:
         """
         reasons = np.asarray(reasons, dtype=object)
         rejected = np.asarray(rejected, dtype=bool)
-        status = np.where(rejected, "rejected", np.where(reasons != "", "flagged", "accepted"))
+        status = np.where(rejected, 2, (reasons != "").astype(np.int8))
         table = pd.DataFrame({"file": str(file), "line": np.asarray(lines, dtype=int),
-                              "site": np.asarray(sites, dtype=object).astype(str),
-                              "status": status, "reason": reasons.astype(str)})
+                              "site": _shared(np.asarray(sites, dtype=object).astype(str)),
+                              "status": np.array(STATUSES, dtype=object)[status],
+                              "reason": _shared(reasons.astype(str))})
         return cls(table=table)
 
     @classmethod
@@ -183,7 +272,7 @@ class Ledger:
     @classmethod
     def for_codes(cls, rows: CodedRows):
         """A ledger of one file's rows held as codes (for files of millions of rows)."""
-        return cls(parts=[rows] if len(rows.lines) else [])
+        return cls(parts=[rows] if len(rows) else [])
 
     def __add__(self, other: "Ledger") -> "Ledger":
         return Ledger(parts=self.parts + other.parts, notes=self.notes + other.notes,
@@ -258,21 +347,18 @@ class Ledger:
         out: dict = {}
         for p in self.parts:
             if isinstance(p, CodedRows):
-                file, lines, codes, texts = p.file, p.lines, p.reason_codes, p.reasons
-                status = np.asarray(STATUSES, dtype=object)[p.status()]
-            else:
-                sel = (p["reason"] != "").to_numpy()
-                if not sel.any():
-                    continue
-                for file, g in p[sel].groupby("file", sort=False):
-                    codes, texts = pd.factorize(g["reason"].to_numpy(dtype=object))
-                    _line_groups(out, str(file), g["line"].to_numpy(), g["status"].to_numpy(
-                        dtype=object), codes, np.asarray(texts, dtype=object))
+                lines, status, codes = p.with_reasons()
+                if len(lines):
+                    _line_groups(out, p.file, lines, np.asarray(STATUSES, dtype=object)[status],
+                                 codes, p.reasons)
                 continue
-            has = (np.asarray(texts, dtype=object) != "")[codes]
-            if has.any():
-                _line_groups(out, file, np.asarray(lines)[has], status[has], codes[has],
-                             np.asarray(texts, dtype=object))
+            sel = (p["reason"] != "").to_numpy()
+            if not sel.any():
+                continue
+            for file, g in p[sel].groupby("file", sort=False):
+                codes, texts = pd.factorize(g["reason"].to_numpy(dtype=object))
+                _line_groups(out, str(file), g["line"].to_numpy(), g["status"].to_numpy(
+                    dtype=object), codes, np.asarray(texts, dtype=object))
         return out
 
     def check_balanced(self) -> bool:
