@@ -421,7 +421,11 @@ def uncertainty_lines(out, result) -> list[str]:
                  + " the draws' velocities follow the drawn air by the grid method "
                  "([uncertainty] vd_follows_air; docs/methods_uncertainty.md, \"Velocities "
                  "that depend on the air\")")
-        words = held_words(air_vd_held_state(result))
+        from .writers import AIR_VD_HELD_KEYS
+        rows = prov.get("air_vd_held") or []      # the run folder's, as draws and seed
+        words = held_words([tuple(r[k] for k in AIR_VD_HELD_KEYS) for r in rows
+                            if isinstance(r, dict) and all(k in r for k in AIR_VD_HELD_KEYS)]
+                           or air_vd_held_state(result))
         if words:
             line += ("; outside the grid's ratio factors 0.5-2, " + words
                      + " (report.html, \"Not in the range\")")
