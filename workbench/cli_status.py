@@ -398,7 +398,8 @@ def uncertainty_lines(out, result) -> list[str]:
     so2_codeposition`` or ``nh3_acid_ratio_from_air`` was on in `result`, that the draws
     keep the velocities of the measured air (before, the console said nothing of the
     draws at all), or with ``[uncertainty] vd_follows_air`` that they follow the drawn
-    air by the grid method; wrapped to :data:`NOTE_WIDTH` characters, as the run's notes."""
+    air by the grid method, naming the draws held at the grid's end (n of D draws at site
+    x); wrapped to :data:`NOTE_WIDTH` characters, as the run's notes."""
     import json
     from pathlib import Path
     try:
@@ -409,7 +410,8 @@ def uncertainty_lines(out, result) -> list[str]:
         return []
     if draws < 1:
         return []
-    from .analysis.uncertainty import air_vd_state
+    from .analysis.airvd import held_words
+    from .analysis.uncertainty import air_vd_held_state, air_vd_state
     line = (f"Monte Carlo: {draws:,} draws, seed {seed}: the 5, 50 and 95 % quantiles are "
             "the columns ending _p05, _p50 and _p95 of budget.csv and summary.csv; what a "
             "range holds and leaves out: report.html, section Uncertainty")
@@ -419,6 +421,14 @@ def uncertainty_lines(out, result) -> list[str]:
                  + " the draws' velocities follow the drawn air by the grid method "
                  "([uncertainty] vd_follows_air; docs/methods_uncertainty.md, \"Velocities "
                  "that depend on the air\")")
+        from .writers import AIR_VD_HELD_KEYS
+        rows = prov.get("air_vd_held") or []      # the run folder's, as draws and seed
+        words = held_words([tuple(r[k] for k in AIR_VD_HELD_KEYS) for r in rows
+                            if isinstance(r, dict) and all(k in r for k in AIR_VD_HELD_KEYS)]
+                           or air_vd_held_state(result))
+        if words:
+            line += ("; outside the grid's ratio factors 0.5-2, " + words
+                     + " (report.html, \"Not in the range\")")
     elif held:
         line += ("; the draws keep the velocities of the measured air under [dry] "
                  + " and ".join(f"{k} = true" for k in held)

@@ -127,12 +127,12 @@ def render_report(result, study, scenario=None, max_site_figures=MAX_SITE_FIGURE
     parts.extend(derived_section(result, network))
     parts.extend(_schemes_html(all_schemes, network))
     parts.extend(_nh3_html(result, network))
-    from .analysis.uncertainty import (air_vd_state, bulk_state, nh3_gamma_state,
-                                       report_section)
+    from .analysis.uncertainty import (air_vd_held_state, air_vd_state, bulk_state,
+                                       nh3_gamma_state, report_section)
     parts.extend(report_section(t, _table_html,
                                 getattr(result.options.get("uncertainty"), "options", None),
                                 bulk_state(result), nh3_gamma_state(result),
-                                air_vd_state(result)))
+                                air_vd_state(result), air_vd_held_state(result)))
     from .analysis.range_shares import report_section as shares_section
     parts.extend(shares_section(getattr(result, "range_shares", None), _table_html))
     parts.append("<h2>Dry nitrogen: the gas/particle bracket [kg N/ha per period]</h2>")

@@ -437,6 +437,12 @@ OUTPUT_STEPS = [
 ]
 
 
+#: The fields of provenance.json's ``air_vd_held`` (only where a draw was held at the end
+#: of the grid of ``[uncertainty] vd_follows_air``: :func:`.analysis.airvd.held`).
+AIR_VD_HELD_KEYS = ("site", "species", "draws", "held_draws", "held_sample_draws",
+                    "sample_draws")
+
+
 def input_paths(study, scenario) -> dict:
     """role -> path of every input of a run (the scenario file first)."""
     paths = dict(study.inputs.paths)
@@ -485,6 +491,10 @@ def write_files(result, study, scenario, folder: Path, progress=None, started=No
                 prov["run_notes"] = ([shown_text(str(n), base)
                                       for n in getattr(result, "notes", [])]
                                      + [changed_note(p, base) for p in changed.values()])
+                held = getattr(getattr(result, "options", {}).get("uncertainty"),
+                               "air_vd_held", ())
+                if held:        # [uncertainty] vd_follows_air: draws held at the grid's end
+                    prov["air_vd_held"] = [dict(zip(AIR_VD_HELD_KEYS, h)) for h in held]
                 path.write_text(json.dumps(prov, indent=2, default=str))
                 got = path
             else:

@@ -316,3 +316,42 @@ def test_a_counter_that_never_falls_has_no_restart_to_find():
                      "met rising: precipitation declared a daily counter, 72 hours masked: no "
                      "restart in its record, give met_counter_restart_hour in the site "
                      "catalogue"]
+
+
+# ------------------------------------------------------- a declaration with nothing to act on
+@pytest.mark.parametrize("fast", [True, False])
+def test_a_declaration_with_no_value_to_act_on_is_named_where_written(tmp_path, demo_met,
+                                                                       monkeypatch, fast):
+    """``met_precipitation = "daily_counter"`` at a site whose precipitation cells are
+    all empty (a met file without a gauge there; a file without the column at all is
+    refused, the column being required) and ``met_wind_unit`` at a site without wind:
+    one note each, naming sites.toml, the line of the key, the site, the key and value
+    and what was expected.  Before: "never above 0 in its record: 0 hours read as 0 mm"
+    and "0 values converted", neither saying where."""
+    import workbench.io.metfast as metfast
+    met = demo_met[demo_met["site"].isin(["ridge", "farm"])].reset_index(drop=True)
+    met = met.astype({COL: object, WIND: object})
+    met.loc[met["site"] == "farm", COL] = ""
+    met.loc[met["site"] == "ridge", WIND] = ""
+    cat = _sites(tmp_path, farm='met_precipitation = "daily_counter"',
+                 ridge='met_wind_unit = "knots"')
+    lines = (tmp_path / "sites.toml").read_text().splitlines()
+    if not fast:
+        monkeypatch.setattr(metfast, "read_met_csv_fast", lambda path, catalogue: None)
+    _, led = read_met(_write(tmp_path / "met.csv", met), cat)
+    n_farm, n_ridge = int((met["site"] == "farm").sum()), int((met["site"] == "ridge").sum())
+    (rain,) = [n for n in led.notes if "met_precipitation" in n]
+    (wind,) = [n for n in led.notes if "met_wind_unit" in n]
+    line = lines.index('met_precipitation = "daily_counter"') + 1
+    assert rain == (f"sites.toml, line {line}, site 'farm': met_precipitation = "
+                    "\"daily_counter\" declared, but the met file holds no precipitation at "
+                    f"the site (its column 'precipitation [mm]' empty at all {n_farm:,} of the "
+                    "site's rows): nothing differenced; expected the day's running total in "
+                    "the met file's precipitation column at this site's rows, or no "
+                    "met_precipitation key (each hour's amount, the default)")
+    line = lines.index('met_wind_unit = "knots"') + 1
+    assert wind.startswith(f"sites.toml, line {line}, site 'ridge': met_wind_unit = \"knots\" "
+                           "declared, but the met file holds no wind speed at the site (its "
+                           f"column 'wind_speed [m/s]' empty at all {n_ridge:,} of the site's "
+                           "rows): nothing converted; expected")
+    assert not [n for n in led.notes if "0 values converted" in n or "0 hours read" in n]

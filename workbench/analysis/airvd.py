@@ -18,7 +18,8 @@ measured air.  With ``vd_follows_air`` they follow the drawn ratio:
 3. a draw's factor q_n of the ratio over sample n's hours is made from its air factors
    of the ratio's species (the amount-weighted mean factor of each species over the
    sample's hours, :meth:`AirVdPieces.ratio_factor`), and the part is interpolated
-   linearly in log c (held at the grid's ends outside it):
+   linearly in log c (held at the grid's ends outside it, and counted: :func:`held`,
+   named in the report and on the console):
 
    .. math:: D^{(d)} = F \\sum_g \\sum_n B_g(\\ln q^{(d)}_n)\\, \\delta^{(d)}_n
              (1 + \\phi_n \\eta^{(d)}_n)\\, A_{npr}(c_g)
@@ -139,6 +140,13 @@ class AirVdPieces:
                 q = (ws * f["SO2"] + (1.0 - ws) * f["HNO3"]) / f["NH3"]
         return np.where(np.isnan(q), 1.0, q)
 
+    def held(self, air: dict) -> np.ndarray:
+        """(D, n) bool: the draw's factor of the ratio over the row lies outside the grid,
+        so that :meth:`basis` takes the row's part at the grid's end (not extrapolated)."""
+        with np.errstate(divide="ignore"):
+            lq = np.log(self.ratio_factor(air))
+        return (lq < self.log_c[0]) | (lq > self.log_c[-1])
+
     def basis(self, air: dict) -> list:
         """``[(B_g (D, n), table_g (n, P, R))]``: the hat-function weights of each grid
         run for each draw and row (linear in ln q, held at the grid's ends)."""
@@ -176,6 +184,39 @@ def dry_ratio_on_grid(pieces, vd_factor, air, vd_fill, basis, class_factor=None)
         return (vd_factor[:, :, None] * ratio).transpose(0, 2, 1)
     return class_ratio(pieces, ratio, vd_factor, class_factor,
                        lambda of_class, r: drawn(of_class).reshape(-1, n_p, n_r)[:, :, r])
+
+
+def held(site, grids: dict, air: dict) -> list:
+    """The draws of one site held at the grid's end: ``[(site, species, draws, held
+    draws, held sample draws, sample draws)]`` for each species of `grids` (species ->
+    :class:`AirVdPieces`) with a held row, `air` the draws' air factors (species ->
+    (D, rows) of ``noise.air``).  A draw is held where the factor of the ratio over at
+    least one of the species' samples falls outside the grid (``GRID_FACTORS``, 0.5-2):
+    that sample's part is then the grid's end's, not the engine's on the drawn air."""
+    out = []
+    for sp, g in grids.items():
+        m = g.held(air)
+        if m.any():
+            out.append((str(site), sp, m.shape[0], int(m.any(1).sum()), int(m.sum()),
+                        int(m.size)))
+    return out
+
+
+def held_words(held_list, limit=5) -> str:
+    """`held_list` (:func:`held` of each site) in words: "n of D draws at site x held at
+    the grid's end for Vd(SO2) in a sample or more (h of N sample draws)", the first
+    `limit` sites named and the rest counted; "" where none was held."""
+    if not held_list:
+        return ""
+    from ..report_numbers import number
+    sites = list(dict.fromkeys(x[0] for x in held_list))
+    keep = set(sites[:limit])
+    parts = [f"{number(h)} of {number(d)} draws at site {site} held at the grid's end for "
+             f"Vd({sp}) in a sample or more ({number(hs)} of {number(ns)} sample draws)"
+             for site, sp, d, h, hs, ns in held_list if site in keep]
+    if len(sites) > limit:
+        parts.append(f"and draws at {number(len(sites) - limit)} more sites")
+    return ", ".join(parts)
 
 
 def _overlap(start, end, start2, end2) -> np.ndarray:

@@ -60,6 +60,11 @@ class BudgetQuantiles:
     #: ratio (``vd_follows_air``, :mod:`.airvd`): ``so2_codeposition``,
     #: ``nh3_acid_ratio_from_air``.
     air_vd_followed: tuple = ()
+    #: The draws whose velocity was held at the grid's end (the factor of the ratio over
+    #: a sample outside ``airvd.GRID_FACTORS``): ``(site, species, draws, held draws,
+    #: held sample draws, sample draws)`` of each site and species with one
+    #: (:func:`.airvd.held`; named in the report and on the console).
+    air_vd_held: tuple = ()
 
 
 def _span_draws(ds, comp, tot):
@@ -153,6 +158,7 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
     span_c, span_t, kept = [], [], []
     bulk_drawn = gamma_drawn = False
     shift_drawn = set()
+    held = []
     for which, lay in sorted(layers.items(), key=lambda kv: kv[0] != "years"):
         if which == "budget" and lay is layers.get("years"):
             out[which] = out["years"]                # a yearly run: the same draws
@@ -171,6 +177,9 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
             bulk_drawn |= noise.bulk is not None
             gamma_drawn |= noise.nh3_gamma is not None
             shift_drawn.update(noise.pair_shift or ())
+            if follow and which == "years" and getattr(lay.sites[k], "air_vd", None):
+                from .airvd import held as _held       # counted once, on the years' draws
+                held.extend(_held(ds["site"].values[k], lay.sites[k].air_vd, noise.air))
             comp = component_draws(lay, k, noise, year0)
             tot = totals_of(comp)
             comp_q[:, k] = np.quantile(comp, q, axis=0)
@@ -209,7 +218,8 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
                 "receptor": yds["receptor"].values, "period": per})
     followed = tuple(k for k in TARGETS if follow and getattr(result.options.get("dry"), k, False))
     return BudgetQuantiles(out.get("budget"), out["years"], span, options, draws, bulk_drawn,
-                           gamma_drawn, tuple(sorted(shift_drawn)), followed)
+                           gamma_drawn, tuple(sorted(shift_drawn)), followed,
+                           tuple(held))
 
 
 def _annual_draws(tot, span_t, annual_factor):

@@ -299,7 +299,7 @@ def draws_in_force(options, bulk=None, gamma=None) -> str:
 
 
 def report_section(table, to_html, options=None, text_options=None, bulk=None,
-                   gamma=None, air_vd=()) -> list:
+                   gamma=None, air_vd=(), held=()) -> list:
     """HTML parts of the report: the 5-95 % range of every total (none without draws).
 
     Parameters
@@ -332,14 +332,15 @@ def report_section(table, to_html, options=None, text_options=None, bulk=None,
                                       "range_note": "the range covers"})
     return ["<h2>Uncertainty: 5-95 % range of every total [kg/ha/yr of S or N]</h2>",
             "<p>" + html.escape(report_text(options if text_options is None
-                                            else text_options, bulk, gamma, air_vd))
+                                            else text_options, bulk, gamma, air_vd,
+                                            held))
             + "</p>",
             "<p class='draws'>" + html.escape(draws_in_force(
                 options, bulk, gamma is not None and gamma[1])) + "</p>",
             to_html(frame)]
 
 
-def report_text(options, bulk=None, gamma=None, air_vd=()) -> str:
+def report_text(options, bulk=None, gamma=None, air_vd=(), held_draws=()) -> str:
     """What the ranges hold and leave out, as the report says it, for the options the
     draws were made with (docs/methods_uncertainty.md, "What a range covers").
 
@@ -374,6 +375,11 @@ def report_text(options, bulk=None, gamma=None, air_vd=()) -> str:
         ``options.vd_follows_air`` the draws follow them by the grid method, named
         among what the range holds, and only the grid's interpolation among what it
         leaves out.
+    held_draws : sequence of tuple, optional
+        The draws whose factor of the ratio over a sample fell outside the grid's 0.5-2
+        (``BudgetQuantiles.air_vd_held``, :func:`.airvd.held`): that sample's part is
+        held at the grid's end, named under what the range leaves out as "n of D draws
+        at site x held at the grid's end" (before, they were held silently).
     """
     shared = getattr(options, "systematic_errors", "shared") == "shared"
     site_vd = float(getattr(options, "vd_site_gsd", 1.0)) > 1.0
@@ -428,6 +434,11 @@ def report_text(options, bulk=None, gamma=None, air_vd=()) -> str:
         left += ("; the grid method's interpolation where the draws' velocities follow "
                  "the drawn air (" + AIR_VD_GRID_ERROR + "; docs/methods_uncertainty.md, "
                  "\"Velocities that depend on the air\")")
+        if held_draws:
+            from .airvd import held_words
+            left += ("; the velocity's change beyond the grid where a draw's factor of the "
+                     "ratio over a sample fell outside 0.5-2 (that sample's part held at the "
+                     "grid's end, not extrapolated): " + held_words(held_draws))
     elif held:
         left += ("; the change of " + " and of ".join(AIR_DEPENDENT_VD[k] for k in held)
                  + ": a draw moves each concentration but keeps the velocities computed "

@@ -200,7 +200,14 @@ def air_vd_state(result) -> tuple:
     return tuple(k for k in _quantile_tables.AIR_DEPENDENT_VD if getattr(dry, k, False))
 
 
-def report_section(table, to_html, options=None, bulk=None, gamma=None, air_vd=()) -> list:
+def air_vd_held_state(result) -> tuple:
+    """The draws of a run held at the end of the grid of ``vd_follows_air``
+    (:attr:`BudgetQuantiles.air_vd_held`; empty without draws or without the option)."""
+    return tuple(getattr(result.options.get("uncertainty"), "air_vd_held", ()) or ())
+
+
+def report_section(table, to_html, options=None, bulk=None, gamma=None, air_vd=(),
+                   held=()) -> list:
     """HTML parts of the report: the 5-95 % range of every total (none without draws),
     :func:`workbench.analysis.quantile_tables.report_section` with the text of what a
     range holds written for `options`, or for the default :class:`UncertaintyOptions`
@@ -212,8 +219,9 @@ def report_section(table, to_html, options=None, bulk=None, gamma=None, air_vd=(
     factor is named as drawn wherever ``bulk_factor_rel_sd`` > 0).  `gamma`: ``(net,
     drawn)`` (:func:`nh3_gamma_state`), the Gamma_s factor named as drawn only where it
     was; None: not named.  `air_vd`: :func:`air_vd_state`, the velocities that depend
-    on the air, named as held at the point's."""
+    on the air, named as held at the point's.  `held`: :func:`air_vd_held_state`, the
+    draws held at the grid's end, named under "Not in the range"."""
     return _quantile_tables.report_section(
         table, to_html, options,
         text_options=UncertaintyOptions() if options is None else options, bulk=bulk,
-        gamma=gamma, air_vd=air_vd)
+        gamma=gamma, air_vd=air_vd, held=held)

@@ -57,7 +57,8 @@ class Inputs:
         from .sites import SiteCatalogue
         keep = list(sites) if sites is not None else self.catalogue.ids
         cat = SiteCatalogue([self.catalogue[s] for s in keep], self.catalogue.path,
-                            self.catalogue.notes, self.catalogue.zone_notes)
+                            self.catalogue.notes, self.catalogue.zone_notes,
+                            getattr(self.catalogue, "key_lines", None))
         t0 = np.datetime64(start, "ns") if start is not None else None
         t1 = np.datetime64(end, "ns") if end is not None else None
 

@@ -29,7 +29,7 @@ from .metcolumns import column_checks
 from .metvars import MET_VARIABLES
 from .metcounter import daily_reset_sites, reset_reason
 from .metdeclared import (counter_sites, declared_wind, difference_daily_counter,
-                          suspected_notes)
+                          suspected_notes, unused_notes)
 from .metwind import wind_unit_findings
 
 #: The variables every met row needs: an empty cell of one flags its row.
@@ -147,7 +147,8 @@ def run_row_checks(values, sites, t, catalogue, raw_units, missing: str | None =
     for name, sel in coded.items():
         values[name] = np.where(sel, np.nan, values[name])
     parts.extend(coded_reasons)
-    new_notes = []
+    # a declaration of the catalogue with nothing to act on here: one located note each
+    new_notes = unused_notes(values, codes, names, catalogue, raw_units)
     # what the catalogue says of the file: the wind's unit, converted once (pint)
     wind_declared = np.zeros(len(names), bool)
     if "wind_speed" in values:

@@ -81,7 +81,7 @@ def declared_wind(ws, codes, names, catalogue, header_unit):
     notes = [f"met {names[s]}: wind_speed written in {units[s]} (met_wind_unit in the site "
              f"catalogue; the header says {head}): {int(counts[s]):,} values converted to "
              f"m/s (x {factor[s]:.4g}, pint), not judged by the wind unit check"
-             for s in np.flatnonzero(declared)]
+             for s in np.flatnonzero(declared & (counts > 0))]   # none: unused_notes
     return out, declared, notes
 
 
@@ -180,7 +180,7 @@ def difference_daily_counter(pr, codes, t, offset_h, names, declared, given_hour
     n_diff = count(~first & finite & ~fall & ~orphan)
     n_fall, n_orphan, n_read = count(fall), count(orphan), count(finite)
     notes = []
-    for s in np.flatnonzero(declared):         # per site, not per hour
+    for s in np.flatnonzero(declared & (n_read > 0)):   # per site (none read: unused_notes)
         name, r = names[s], int(restart[s])
         if dry_site[s]:
             notes.append(f"met {name}: precipitation declared a daily counter (met_precipitation "
@@ -226,6 +226,71 @@ def difference_daily_counter(pr, codes, t, offset_h, names, declared, given_hour
                      f"hour's amount, {int(n_first[s]):,} first hours after a restart "
                      f"taken as read{masked}")
     return amounts, reasons, notes
+
+
+def unused_notes(values, codes, names, catalogue, raw_units=None):
+    """One located note per declaration of the site catalogue that acts on nothing.
+
+    ``met_precipitation = "daily_counter"`` where the met file holds no precipitation
+    value at the site (no column, or its cells empty at every one of the site's rows)
+    has nothing to difference, and ``met_wind_unit`` nothing to convert where it holds no
+    wind speed there; before, the first said "never above 0 in its record: 0 hours read
+    as 0 mm" and the second "0 values converted", neither where the key is written.
+
+    Parameters
+    ----------
+    values : dict
+        Variable -> (rows,) as read (before the declarations act) [internal units].
+    codes : ndarray of int
+        Site code of each row (0 .. len(names) - 1).
+    names : sequence of str
+    catalogue : SiteCatalogue
+        Its :meth:`~workbench.io.sites.SiteCatalogue.key_place` says where each key is.
+    raw_units : dict, optional
+        Variable -> the unit of its header, to name the column.
+
+    Returns
+    -------
+    list of str
+        "sites.toml, line 75, site 'farm': met_precipitation = "daily_counter" declared,
+        but ...: nothing differenced; expected ...".
+
+    >>> from workbench.io.sites import SiteCatalogue, Site
+    >>> s = Site("a", "A", 54, -2, 300, "grass", 0.1, 10, 2, 0, met_wind_unit="knots")
+    >>> note = unused_notes({"wind_speed": np.array([np.nan])}, np.zeros(1, int), ["a"],
+    ...                     SiteCatalogue([s]))[0]
+    >>> print(note.split(" declared")[0])
+    the site catalogue, site 'a': met_wind_unit = "knots"
+    """
+    raw_units = raw_units or {}
+    notes = []
+    for var, key, done, expected in (
+            ("precipitation", "met_precipitation", "nothing differenced",
+             "the day's running total in the met file's precipitation column at this site's "
+             "rows, or no met_precipitation key (each hour's amount, the default)"),
+            ("wind_speed", "met_wind_unit", "nothing converted",
+             "the site's wind speed in the met file's wind_speed column, or no "
+             "met_wind_unit key (the header's unit)")):
+        given = [getattr(catalogue[str(u)], key, None) for u in names]
+        if var == "precipitation":
+            given = [g if g == "daily_counter" else None for g in given]
+        if not any(g is not None for g in given):
+            continue
+        v = values.get(var)
+        counts = (np.bincount(codes[np.isfinite(v)], minlength=len(names)) if v is not None
+                  else np.zeros(len(names), np.int64))
+        rows = np.bincount(codes, minlength=len(names))
+        unit = str(raw_units.get(var, "")).strip()
+        column = f"'{var}" + (f" [{unit}]" if unit else "") + "'"
+        for s in np.flatnonzero([g is not None for g in given]):
+            if counts[s]:
+                continue
+            held = (f"its column {column} empty at all {int(rows[s]):,} of the site's rows"
+                    if v is not None else f"no column {var}")
+            notes.append(f"{catalogue.key_place(names[s], key)}: {key} = \"{given[s]}\" "
+                         f"declared, but the met file holds no {var.replace('_', ' ')} "
+                         f"at the site ({held}): {done}; expected {expected}")
+    return notes
 
 
 def suspected_notes(names, rows_per_site, found_wind, median_wind_sites, counter_found,

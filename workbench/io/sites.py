@@ -32,6 +32,11 @@ from .sitegeometry import (ELEVATION_RANGE, MAX_CANOPY_M, STEEP_SLOPE_DEG, TALL_
                            _zone_gap, zone_note)
 
 
+#: Keys of a [[site]] whose line the catalogue keeps (:attr:`SiteCatalogue.key_lines`):
+#: the met reader notes where one declared acts on nothing.
+PLACED_KEYS = ("met_wind_unit", "met_precipitation")
+
+
 class SiteCatalogue:
     """The sites of a study, read from ``sites.toml``.
 
@@ -47,12 +52,22 @@ class SiteCatalogue:
         check supersedes where it judges the site (:func:`workbench.io.inputs.load_inputs`).
     """
 
-    def __init__(self, sites, path=None, notes=None, zone_notes=None):
+    def __init__(self, sites, path=None, notes=None, zone_notes=None, key_lines=None):
         self.sites = {s.id: s for s in sites}
         self.path = Path(path) if path is not None else None
         #: Doubtful but usable values found when reading (plain-text hints).
         self.notes = list(notes or [])
         self.zone_notes = dict(zone_notes or {})
+        #: (site id, key) -> the 1-based line of sites.toml writing the key, for the keys
+        #: of :data:`PLACED_KEYS` a site gives (the met reader's notes on them say where).
+        self.key_lines = dict(key_lines or {})
+
+    def key_place(self, site_id, key) -> str:
+        """Where `key` of site `site_id` is written, for a note: ``"sites.toml, line 75,
+        site 'farm'"`` (without the line where it is not known)."""
+        name = self.path.name if self.path is not None else "the site catalogue"
+        line = self.key_lines.get((str(site_id), key))
+        return f"{name}, " + (f"line {line}, " if line else "") + f"site {str(site_id)!r}"
 
     def __iter__(self):
         return iter(self.sites.values())
@@ -261,6 +276,8 @@ def read_sites(path) -> SiteCatalogue:
         if zone:
             notes.append(zone)
             zone_notes[sid] = zone
-    return SiteCatalogue(sites, path, notes, zone_notes)
+    key_lines = {(str(t["id"]), key): _key_line(lines, starts, k, key)
+                 for k, t in enumerate(tables) for key in PLACED_KEYS if key in t}
+    return SiteCatalogue(sites, path, notes, zone_notes, key_lines)
 
 
