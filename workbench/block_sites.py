@@ -9,6 +9,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from .io.ledger import shared_strings
+
 
 def _n_sites(n) -> str:
     """``1 site``, ``2 sites``."""
@@ -181,9 +183,7 @@ def shared_texts(ds):
         flat = v.values.reshape(-1)
         if pd.api.types.infer_dtype(flat, skipna=False) != "string":
             continue                      # a None, a NaN or a number among them: as it is
-        codes, uniques = pd.factorize(flat)
-        held = np.asarray(uniques, dtype=object)     # the first cell of each text
-        new[name] = v.copy(deep=False, data=held[codes].reshape(v.shape))
+        new[name] = v.copy(deep=False, data=shared_strings(flat).reshape(v.shape))
     if not new:
         return ds
     data = {n: x for n, x in new.items() if n in ds.data_vars}

@@ -51,9 +51,10 @@ def _run_starts(lines, *codes) -> np.ndarray:
     return np.concatenate(out)
 
 
-def _shared(texts) -> np.ndarray:
+def shared_strings(texts) -> np.ndarray:
     """`texts` as an object array whose equal cells are one ``str`` (a row's site, status
-    and reason repeat over many rows: one object each instead of one a cell)."""
+    and reason repeat over many rows, a block's statuses and notes over its cells: one
+    object each instead of one a cell; :func:`workbench.block_sites.shared_texts`)."""
     codes, uniq = pd.factorize(np.asarray(texts, dtype=object))
     return np.asarray([str(u) for u in uniq] + [""], dtype=object)[codes]
 
@@ -257,9 +258,9 @@ class Ledger:
         rejected = np.asarray(rejected, dtype=bool)
         status = np.where(rejected, 2, (reasons != "").astype(np.int8))
         table = pd.DataFrame({"file": str(file), "line": np.asarray(lines, dtype=int),
-                              "site": _shared(np.asarray(sites, dtype=object).astype(str)),
+                              "site": shared_strings(np.asarray(sites, dtype=object).astype(str)),
                               "status": np.array(STATUSES, dtype=object)[status],
-                              "reason": _shared(reasons.astype(str))})
+                              "reason": shared_strings(reasons.astype(str))})
         return cls(table=table)
 
     @classmethod

@@ -34,6 +34,38 @@ RESET_HELD_SHARE = 0.5
 FALL_MIN_MM = 0.05
 
 
+def site_hours(codes, time_end, offset_h):
+    """The rows in order of site and time, with each one's hour of the day.
+
+    Parameters
+    ----------
+    codes : ndarray of int
+        Site code of each row.
+    time_end : ndarray of datetime64
+        End of each row's hour [UTC].
+    offset_h : ndarray of float
+        Per site, the offset of its file's clock from UTC [h] (``utc_offset_h``).
+
+    Returns
+    -------
+    order : ndarray of int
+        Row indices sorted by site, then time.
+    c : ndarray of int
+        The site code of each sorted row.
+    hour : ndarray of int
+        The hour of the day of each sorted row's end on the file's clock [h].
+    after : ndarray of bool
+        The sorted row before is the same site's hour before (False for the first).
+    """
+    order = np.lexsort((np.asarray(time_end), codes))
+    c = codes[order]
+    minutes = np.asarray(time_end, "datetime64[m]")[order].astype(np.int64)
+    hour = ((minutes + np.round(offset_h[c] * 60).astype(np.int64)) // 60) % 24
+    after = np.zeros(len(order), bool)
+    after[1:] = (c[1:] == c[:-1]) & (np.diff(minutes) == 60)
+    return order, c, hour, after
+
+
 def daily_reset_sites(pr, codes, n_sites, time_end, offset_h):
     """Per site: does its precipitation look like a counter reset each day?
 
@@ -66,17 +98,13 @@ def daily_reset_sites(pr, codes, n_sites, time_end, offset_h):
     >>> int(h[0]), float(s[0]), int(n[0])
     (1, 1.0, 2)
     """
-    order = np.lexsort((np.asarray(time_end), codes))
-    v, c = pr[order], codes[order]
-    tt = np.asarray(time_end, "datetime64[m]")[order]
-    step = np.diff(tt).astype(np.int64)
-    pair = (c[1:] == c[:-1]) & (step == 60) & np.isfinite(v[1:]) & np.isfinite(v[:-1])
+    order, c, hour, after = site_hours(codes, time_end, offset_h)
+    v = pr[order]
+    pair = after[1:] & np.isfinite(v[1:]) & np.isfinite(v[:-1])
     fall = pair & (v[1:] < v[:-1] - FALL_MIN_MM)
     held = np.zeros(len(fall), bool)   # the pair before a fall: a value held, not a spike
     held[1:] = pair[:-1] & (v[:-2] > 0) & (v[:-2] <= v[1:-1])
-    local_min = tt[1:].astype(np.int64) + np.round(offset_h[c[1:]] * 60).astype(np.int64)
-    hour = (local_min // 60) % 24
-    cell = c[1:][fall] * 24 + hour[fall]
+    cell = c[1:][fall] * 24 + hour[1:][fall]
     counts = np.bincount(cell, minlength=n_sites * 24).reshape(n_sites, 24)
     falls = counts.sum(axis=1)
     top = counts.argmax(axis=1)

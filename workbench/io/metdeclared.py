@@ -25,7 +25,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..units import convert_plain
-from .metcounter import FALL_MIN_MM, RESET_HOUR_SHARE, RESET_MIN_FALLS
+from .metcounter import FALL_MIN_MM, RESET_HOUR_SHARE, RESET_MIN_FALLS, site_hours
 from .metwind import SLIP_FACTORS
 
 #: Decimals [mm] a difference of two counter readings is rounded to: removes the
@@ -153,14 +153,13 @@ def difference_daily_counter(pr, codes, t, offset_h, names, declared, given_hour
     from_data = given_hour < 0
     restart = np.where(from_data, (np.asarray(top) - 1) % 24, given_hour)
     unknown = from_data & (np.asarray(falls) == 0)
-    order = np.flatnonzero(rows)
-    order = order[np.lexsort((np.asarray(t)[order], codes[order]))]
-    v, c = amounts[order], codes[order]
-    tt = np.asarray(t, "datetime64[m]")[order].astype(np.int64)
-    local_hour = ((tt + np.round(offset_h[c] * 60).astype(np.int64)) // 60) % 24
+    chosen = np.flatnonzero(rows)
+    order, c, local_hour, after = site_hours(codes[chosen], np.asarray(t)[chosen], offset_h)
+    order = chosen[order]
+    v = amounts[order]
     first = local_hour == (restart[c] + 1) % 24
-    prev_ok = np.zeros(len(v), bool)
-    prev_ok[1:] = (c[1:] == c[:-1]) & (tt[1:] - tt[:-1] == 60) & np.isfinite(v[:-1])
+    prev_ok = after.copy()
+    prev_ok[1:] &= np.isfinite(v[:-1])
     diff = np.full(len(v), np.nan)
     diff[1:] = np.round(v[1:] - v[:-1], DIFFERENCE_DECIMALS)
     finite = np.isfinite(v)
