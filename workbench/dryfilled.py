@@ -55,6 +55,35 @@ def covered_filled_share(site_index, a, b, c_fill, pa, pb, cn=None, known=None):
     return share.transpose(0, 2, 1)
 
 
+def _overlap_bounds(a, b, pa, pb):
+    """Hour bounds of the overlap of each sampling period with each reporting period.
+
+    The one reckoning of the overlap that :func:`row_filled_hours` counts hours in
+    and :func:`row_filled_deposition_share` sums Vd over, on the cumulative arrays'
+    hour axis (an overlap [lo, hi) holds hi - lo hours).
+
+    Parameters
+    ----------
+    a, b : ndarray of int (n,)
+        Hour bounds [start, end) of each sampling period [h, index on the hour axis].
+    pa, pb : ndarray of int (P,)
+        Hour bounds [start, end) of the reporting periods [h, index on the hour axis].
+
+    Returns
+    -------
+    lo, hi : ndarray of int (n, P)
+        Start and end of each overlap [h, index on the hour axis]; hi = lo where the
+        two do not overlap (no hours).
+
+    >>> lo, hi = _overlap_bounds(np.array([2]), np.array([9]), np.array([0, 5]), np.array([5, 12]))
+    >>> lo.tolist(), hi.tolist()
+    ([[2, 5]], [[5, 9]])
+    """
+    lo = np.maximum(a[:, None], pa[None, :])
+    hi = np.maximum(np.minimum(b[:, None], pb[None, :]), lo)
+    return lo, hi
+
+
 def row_filled_hours(site_index, a, b, c_fill, pa, pb, cn=None):
     """Each sampling period's hours in each reporting period, and those not modelled.
 
@@ -82,8 +111,7 @@ def row_filled_hours(site_index, a, b, c_fill, pa, pb, cn=None):
         Hours of the overlap on the hour axis.
     """
     si = site_index[:, None]
-    lo = np.maximum(a[:, None], pa[None, :])              # (row, period)
-    hi = np.maximum(np.minimum(b[:, None], pb[None, :]), lo)
+    lo, hi = _overlap_bounds(a, b, pa, pb)                # (row, period)
     hours = (hi - lo).astype(float)
     part = c_fill[si, :, hi] - c_fill[si, :, lo]          # (row, period, R)
     if cn is not None:
@@ -125,8 +153,7 @@ def row_filled_deposition_share(site_index, a, b, cs, c_fill, pa, pb, cn=None):
     c_vf = np.zeros(cs.shape)
     np.cumsum(np.where(filled_h, np.diff(cs, axis=-1), 0.0), axis=-1, out=c_vf[..., 1:])
     si = site_index[:, None]
-    lo = np.maximum(a[:, None], pa[None, :])              # (row, period)
-    hi = np.maximum(np.minimum(b[:, None], pb[None, :]), lo)
+    lo, hi = _overlap_bounds(a, b, pa, pb)                # (row, period)
     v_fill = c_vf[si, :, hi] - c_vf[si, :, lo]            # (row, period, R)
     v_all = cs[si, :, hi] - cs[si, :, lo]
     if cn is not None:         # an hour without Vd carries the row's mean Vd

@@ -146,11 +146,7 @@ def psi_m(zeta):
     psi_m : array_like
         [-]; NaN where zeta is NaN.
     """
-    if isinstance(zeta, np.ndarray) and zeta.ndim:
-        return _by_sign(zeta, psi_m_paulson, psi_m_beljaars_holtslag)
-    neg = np.minimum(zeta, 0.0)
-    pos = np.maximum(zeta, 0.0)
-    return where(zeta < 0.0, psi_m_paulson(neg), psi_m_beljaars_holtslag(pos))
+    return _joined_branches(zeta, psi_m_paulson, psi_m_beljaars_holtslag)
 
 
 def psi_h(zeta):
@@ -168,11 +164,36 @@ def psi_h(zeta):
     psi_h : array_like
         [-]; NaN where zeta is NaN.
     """
+    return _joined_branches(zeta, psi_h_paulson, psi_h_beljaars_holtslag)
+
+
+def _joined_branches(zeta, unstable, stable):
+    """``unstable(min(zeta, 0))`` where zeta < 0, else ``stable(max(zeta, 0))`` [-].
+
+    The joining of an unstable and a stable branch that :func:`psi_m` and
+    :func:`psi_h` share: a numpy array with dimensions goes through :func:`_by_sign`
+    (each branch evaluated where it is used; the same values), anything else (float,
+    0-d array, DataArray, dask array) through the element-wise ``where`` form, which
+    keeps its type.  Each branch is given zeta clipped to its own sign, so it is
+    never evaluated outside its domain.
+
+    Parameters
+    ----------
+    zeta : array_like
+        z/L. [-]
+    unstable, stable : callable
+        The branch functions, zeta [-] -> psi [-].
+
+    Returns
+    -------
+    psi : array_like
+        [-]; NaN where zeta is NaN.
+    """
     if isinstance(zeta, np.ndarray) and zeta.ndim:
-        return _by_sign(zeta, psi_h_paulson, psi_h_beljaars_holtslag)
+        return _by_sign(zeta, unstable, stable)
     neg = np.minimum(zeta, 0.0)
     pos = np.maximum(zeta, 0.0)
-    return where(zeta < 0.0, psi_h_paulson(neg), psi_h_beljaars_holtslag(pos))
+    return where(zeta < 0.0, unstable(neg), stable(pos))
 
 
 def _by_sign(zeta, unstable, stable):
@@ -180,7 +201,7 @@ def _by_sign(zeta, unstable, stable):
 
     Each branch is evaluated only where it is used (the unstable one on the whole
     array, which is cheaper than selecting); the values are those of the
-    ``where`` form of :func:`psi_m` and :func:`psi_h`.
+    ``where`` form of :func:`_joined_branches`.
 
     Parameters
     ----------
