@@ -210,6 +210,38 @@ def table_rows(case, lay0, e):
     return out
 
 
+def pair_shift_devs(case, lay0, e, keys, contrib0, log_grid, table,
+                    shifts=(-0.3, -0.1, 0.1, 0.3)):
+    """What a drawn ammonium split (``pair_shift_ammonium`` = s) would do to the
+    velocity of the case's species at the point: s -> receptor -> the deposition with
+    the Vd of the shifted air over the fixed Vd's, less 1 [1] (`e` of
+    :func:`draw_errors`, the grid of :func:`grid_tables`)."""
+    air, j, mol = e["air"], e["j"], e["mol"]
+    nh4 = air["pNH4 [ug/m3]"].to_numpy(float)[j] / 18.039
+    recs = lay0.budget["receptor"].values
+    out = {}
+    for sh in shifts:
+        if case == "codeposition":
+            # NH3 times 1 + s (s < 0) or plus s pNH4 (s > 0) moves the NH3/SO2 ratio by
+            # that factor; the draws keep Vd(SO2)
+            f = np.full(len(keys), 1.0 + sh) if sh < 0 else (mol["NH3"] + sh * nh4) / mol["NH3"]
+            b = contrib0
+        else:
+            # deposition-only NH3: s < 0 keeps (1 + s) NH3, the acid ratio over 1 + s;
+            # s > 0 adds s pNH4 to NH3, the ratio times NH3 / (NH3 + s pNH4); the draws
+            # keep the point Vd of NH3
+            f = np.full(len(keys), 1.0 / (1.0 + sh)) if sh < 0 else \
+                mol["NH3"] / (mol["NH3"] + sh * nh4)
+            amt = np.full(len(keys), 1.0 + sh) if sh < 0 else 1.0 + sh * nh4 / mol["NH3"]
+            b = contrib0 * amt[:, None, None]
+        rs = _on_grid(log_grid, table, np.log(f)[None])[0]                 # (n, P, R)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            dev = (b * rs).sum(0) / b.sum(0) - 1.0
+        out[sh] = {str(rec): float(dev[0, ri]) for ri, rec in enumerate(recs)
+                   if np.isfinite(dev[0, ri])}
+    return out
+
+
 def measure(case, base, work, site, year, draws, seed, grid, check):
     line, target = CASES[case]
     ks = np.exp(np.linspace(np.log(0.5), np.log(2.0), grid))
@@ -220,9 +252,8 @@ def measure(case, base, work, site, year, draws, seed, grid, check):
     keys, contrib0, log_grid, table = tables[target]
     e = draw_errors(case, lay0, work, site, year, draws, seed, keys, contrib0, log_grid,
                     table)
-    a, air, j, mol, outside = e["a"], e["air"], e["j"], e["mol"], e["outside"]
+    a, air, j, outside = e["a"], e["air"], e["j"], e["outside"]
     fixed, exact = e["fixed"], e["exact"]
-    ds = lay0.budget
     print(f"\n{case}: Vd({target}) of {site} {year}, {draws} draws, seed {seed}; "
           f"grid {grid} factors 0.5-2 ({outside:.2%} of the sample draws outside)")
     print(f"{'receptor':18s} {'median |dev|':>12s} {'95% |dev|':>10s} {'max |dev|':>10s}"
@@ -232,35 +263,10 @@ def measure(case, base, work, site, year, draws, seed, grid, check):
         print(f"{rec:18s} {s['median']:12.2e} {s['p95']:10.2e} {s['max']:10.2e}"
               f" {s['mean']:+9.1e}   " + " ".join(f"{v:.3f}" for v in s["fixed"])
               + " -> " + " ".join(f"{v:.3f}" for v in s["exact"]))
-    if case == "codeposition":
-        # a drawn ammonium split (pair_shift_ammonium): NH3 times 1 + s (s < 0) or plus
-        # s pNH4 (s > 0) moves the NH3/SO2 ratio by that factor; the draws keep Vd(SO2)
-        nh3 = air["NH3 [ug/m3]"].to_numpy(float)[j] / MOLAR["NH3"]
-        nh4 = air["pNH4 [ug/m3]"].to_numpy(float)[j] / 18.039
-        for sh in (-0.3, -0.1, 0.1, 0.3):
-            f = np.full(len(keys), 1.0 + sh) if sh < 0 else (nh3 + sh * nh4) / nh3
-            rs = _on_grid(log_grid, table, np.log(f)[None])[0]                 # (n, P, R)
-            with np.errstate(invalid="ignore", divide="ignore"):
-                dev = (contrib0 * rs).sum(0) / contrib0.sum(0) - 1.0
-            print(f"pair_shift_ammonium s = {sh:+.1f}: SO2 exact / fixed Vd - 1: " + ", ".join(
-                f"{rec} {dev[0, ri]:+.3f}" for ri, rec in enumerate(ds["receptor"].values)
-                if np.isfinite(dev[0, ri])))
-    if case == "acid_ratio":
-        # a drawn ammonium split (pair_shift_ammonium, deposition-only NH3): s < 0 keeps
-        # (1 + s) NH3, the acid ratio over 1 + s; s > 0 adds s pNH4 to NH3, the ratio
-        # times NH3 / (NH3 + s pNH4); the draws keep the point Vd of NH3
-        nh4 = air["pNH4 [ug/m3]"].to_numpy(float)[j] / 18.039
-        for sh in (-0.3, -0.1, 0.1, 0.3):
-            f = np.full(len(keys), 1.0 / (1.0 + sh)) if sh < 0 else \
-                mol["NH3"] / (mol["NH3"] + sh * nh4)
-            amt = np.full(len(keys), 1.0 + sh) if sh < 0 else 1.0 + sh * nh4 / mol["NH3"]
-            rs = _on_grid(log_grid, table, np.log(f)[None])[0]                 # (n, P, R)
-            b = contrib0 * amt[:, None, None]
-            with np.errstate(invalid="ignore", divide="ignore"):
-                dev = (b * rs).sum(0) / b.sum(0) - 1.0
-            print(f"pair_shift_ammonium s = {sh:+.1f}: NH3 exact / fixed Vd - 1: " + ", ".join(
-                f"{rec} {dev[0, ri]:+.3f}" for ri, rec in enumerate(ds["receptor"].values)
-                if np.isfinite(dev[0, ri])))
+    species = "SO2" if case == "codeposition" else "NH3"
+    for sh, dev in pair_shift_devs(case, lay0, e, keys, contrib0, log_grid, table).items():
+        print(f"pair_shift_ammonium s = {sh:+.1f}: {species} exact / fixed Vd - 1: "
+              + ", ".join(f"{rec} {d:+.3f}" for rec, d in dev.items()))
     # the engine on the drawn air itself (every sample its own factors)
     for dk in range(check):
         scale = {}

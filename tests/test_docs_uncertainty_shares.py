@@ -4,8 +4,9 @@ and components, the 5 / 50 / 95 % at 1,000 draws) and the 1,000-draw columns of 
 shares table (variance share and log-variance share of each factor, seed 12345), with
 the crops' and deciduous forest's log shares beside it, recomputed with
 :func:`workbench.analysis.variance_shares.variance_shares` on the demo's farm
-(docs/make_uncertainty_figures.py's ``farm_run``). The 4,000-draw columns and seed 7's
-are not recomputed here (four times the draws; they are measured as the table says).
+(docs/make_uncertainty_figures.py's ``farm_run``). The 4,000-draw columns, seed 7's and
+the 2,000-draw log-SDs, median and mean are not recomputed (four and two times the
+draws): they are held within their Monte Carlo error by the 1,000 draws (below).
 The reference is the engine itself (measured numbers; the method's checks are in
 tests/analysis/test_variance_shares.py). Numbers as written (Python's format, common
 practice; a minus sign as U+2212).
