@@ -98,30 +98,54 @@ def _on_grid(log_grid, table, log_q):
     return lo + (hi - lo) * w[(...,) + extra]
 
 
-def measure(case, base, work, site, year, draws, seed, grid, check):
-    line, target = CASES[case]
+def grid_tables(base, work, line, targets, ks):
+    """The point run's linear layer and, per species of `targets`, the Vd table on the
+    grid: the engine run once with `line` in [dry] and once per factor k of `ks` other
+    than 1 (the point run's) with the site's NH3 column scaled by k (every target read from the same runs: a scenario
+    with both options gives each species' Vd as with its own option alone, the two
+    relations reading the concentrations, not each other's Vd).
+
+    Returns (lay0, {target: (keys, contrib0, log_grid, table)}), or (lay0, None) where
+    the site lacks SO2, HNO3 or NH3; `table` (G, n, P, R) is each sample's deposition at
+    the grid's ratio factor over the point's [1], `log_grid` the logarithms of the
+    ratio factors c (c = k for SO2's NH3/SO2, 1/k for NH3's acid ratio), ascending.
+    """
     lay0 = _layer(_scenario(base, work / "point", line))
     ls = lay0.sites[0]
     if not all(sp in ls.dry for sp in ("SO2", "NH3", "HNO3")):
-        print(f"\n{case}: {site} {year} lacks SO2, HNO3 or NH3 deposition: skipped")
-        return {}
-    p0 = ls.dry[target]
-    keys = [tuple(i[1:3]) for i in p0.ident]
-    contrib0 = p0.contrib                                        # (n, P, R)
-    # the grid: NH3 scaled by k; the ratio's factor c = k (NH3/SO2) or 1/k (acid ratio)
-    ks = np.exp(np.linspace(np.log(0.5), np.log(2.0), grid))
-    vd_ratio = []
+        return lay0, None
+    p0 = {tg: ls.dry[tg] for tg in targets}
+    keys = {tg: [tuple(i[1:3]) for i in p.ident] for tg, p in p0.items()}
+    vd_ratio = {tg: [] for tg in targets}
     for k in ks:
-        lay = _layer(_scenario(base, work / "grid", line, {"NH3": k}))
-        p = lay.sites[0].dry[target]
-        assert [tuple(i[1:3]) for i in p.ident] == keys
-        conc = k if target == "NH3" else 1.0               # NH3's own concentration moved
-        with np.errstate(invalid="ignore", divide="ignore"):
-            vd_ratio.append(np.where(contrib0 > 0, p.contrib / conc / contrib0, 1.0))
-    c = ks if target == "SO2" else 1.0 / ks
-    order = np.argsort(c)
-    log_grid, table = np.log(c[order]), np.stack(vd_ratio)[order]
+        # the factor 1 is the point run itself (its ratios are 1): no run again
+        lay = lay0 if k == 1.0 else _layer(_scenario(base, work / "grid", line, {"NH3": k}))
+        for tg in targets:
+            p = lay.sites[0].dry[tg]
+            assert [tuple(i[1:3]) for i in p.ident] == keys[tg]
+            conc = k if tg == "NH3" else 1.0               # NH3's own concentration moved
+            c0 = p0[tg].contrib                                  # (n, P, R)
+            with np.errstate(invalid="ignore", divide="ignore"):
+                vd_ratio[tg].append(np.where(c0 > 0, p.contrib / conc / c0, 1.0))
+    out = {}
+    for tg in targets:
+        c = ks if tg == "SO2" else 1.0 / ks
+        order = np.argsort(c)
+        out[tg] = (keys[tg], p0[tg].contrib, np.log(c[order]),
+                   np.stack(vd_ratio[tg])[order])
+    return lay0, out
 
+
+def draw_errors(case, lay0, work, site, year, draws, seed, keys, contrib0, log_grid, table):
+    """The draws' deposition of the case's species with the point's Vd (fixed) and with
+    the Vd of each draw's ratio on the grid (exact), and what the rest of the script
+    reads: a dict with ``a`` (species -> (D, n) air factors), ``air``, ``j`` (the
+    samples' rows of air.csv), ``mol`` (acid ratio: mol of each gas per sample),
+    ``outside`` (share of sample draws off the grid), ``rel`` (D, P, R) exact / fixed
+    - 1 [1], ``fixed``, ``exact`` (D, P, R) [mol m-2], ``full``, ``full_exact`` (D, P, R)
+    the full draws of the component (every factor) [mol m-2]."""
+    target = CASES[case][1]
+    ls = lay0.sites[0]
     opt = U.UncertaintyOptions(draws=draws, seed=seed)
     ds = lay0.budget
     noise = U.site_noise(ls, opt, draws, 1, 1, (seed, site), year,
@@ -144,10 +168,10 @@ def measure(case, base, work, site, year, draws, seed, grid, check):
           ).values.astype("datetime64[ns]").astype(np.int64)
     row = {(st, s, t): j for j, (st, s, t) in enumerate(zip(air["site"], air["sampler_id"], t0))}
     j = np.array([row[(site, s, int(t))] for s, t in keys])        # the keys' rows
+    mol = {sp: air[f"{sp} [ug/m3]"].to_numpy(float)[j] / MOLAR[sp] for sp in MOLAR}
     if case == "codeposition":
         q = a["NH3"] / a["SO2"]
     else:
-        mol = {sp: air[f"{sp} [ug/m3]"].to_numpy(float)[j] / MOLAR[sp] for sp in MOLAR}
         w = 2 * mol["SO2"] / (2 * mol["SO2"] + mol["HNO3"])
         q = (w * a["SO2"] + (1 - w) * a["HNO3"]) / a["NH3"]
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -162,13 +186,19 @@ def measure(case, base, work, site, year, draws, seed, grid, check):
     jc = [cc[1:] for cc in U.COMPONENTS].index(("dry", target))
     full = comp[..., jc].transpose(0, 2, 1)                       # (D, P, R)
     full_exact = full * (1.0 + np.nan_to_num(rel))
-    print(f"\n{case}: Vd({target}) of {site} {year}, {draws} draws, seed {seed}; "
-          f"grid {grid} factors 0.5-2 ({outside:.2%} of the sample draws outside)")
-    print(f"{'receptor':18s} {'median |dev|':>12s} {'95% |dev|':>10s} {'max |dev|':>10s}"
-          f" {'mean dev':>9s}   quantiles 5/50/95 fixed Vd -> exact [kg ha-1]")
+    return dict(a=a, air=air, j=j, mol=mol, outside=outside, rel=rel, fixed=fixed,
+                exact=exact, full=full, full_exact=full_exact)
+
+
+def table_rows(case, lay0, e):
+    """The printed table's numbers of `e` (:func:`draw_errors`) per receptor: median,
+    95 % and largest of |exact / fixed - 1| and its mean [1]; the 5 / 50 / 95 % of the
+    full draws with the fixed and the exact Vd [kg ha-1 of S or N]."""
+    target = CASES[case][1]
     kg = 10.0 * 14.007 if target == "NH3" else 10.0 * 32.06   # mol m-2 -> kg ha-1 of N or S
+    rel, full, full_exact = e["rel"], e["full"], e["full_exact"]
     out = {}
-    for ri, rec in enumerate(ds["receptor"].values):
+    for ri, rec in enumerate(lay0.budget["receptor"].values):
         if not np.isfinite(rel[:, 0, ri]).all():
             continue                                  # a receptor the site does not ask for
         d = np.abs(rel[:, 0, ri])
@@ -177,38 +207,66 @@ def measure(case, base, work, site, year, draws, seed, grid, check):
         out[str(rec)] = dict(median=float(np.median(d)), p95=float(np.quantile(d, 0.95)),
                              max=float(d.max()), mean=float(rel[:, 0, ri].mean()),
                              fixed=qf.tolist(), exact=qe.tolist())
-        print(f"{rec:18s} {np.median(d):12.2e} {np.quantile(d, 0.95):10.2e} {d.max():10.2e}"
-              f" {rel[:, 0, ri].mean():+9.1e}   " + " ".join(f"{v:.3f}" for v in qf)
-              + " -> " + " ".join(f"{v:.3f}" for v in qe))
-    if case == "codeposition":
-        # a drawn ammonium split (pair_shift_ammonium): NH3 times 1 + s (s < 0) or plus
-        # s pNH4 (s > 0) moves the NH3/SO2 ratio by that factor; the draws keep Vd(SO2)
-        nh3 = air["NH3 [ug/m3]"].to_numpy(float)[j] / MOLAR["NH3"]
-        nh4 = air["pNH4 [ug/m3]"].to_numpy(float)[j] / 18.039
-        for sh in (-0.3, -0.1, 0.1, 0.3):
-            f = np.full(len(keys), 1.0 + sh) if sh < 0 else (nh3 + sh * nh4) / nh3
-            rs = _on_grid(log_grid, table, np.log(f)[None])[0]                 # (n, P, R)
-            with np.errstate(invalid="ignore", divide="ignore"):
-                dev = (contrib0 * rs).sum(0) / contrib0.sum(0) - 1.0
-            print(f"pair_shift_ammonium s = {sh:+.1f}: SO2 exact / fixed Vd - 1: " + ", ".join(
-                f"{rec} {dev[0, ri]:+.3f}" for ri, rec in enumerate(ds["receptor"].values)
-                if np.isfinite(dev[0, ri])))
-    if case == "acid_ratio":
-        # a drawn ammonium split (pair_shift_ammonium, deposition-only NH3): s < 0 keeps
-        # (1 + s) NH3, the acid ratio over 1 + s; s > 0 adds s pNH4 to NH3, the ratio
-        # times NH3 / (NH3 + s pNH4); the draws keep the point Vd of NH3
-        nh4 = air["pNH4 [ug/m3]"].to_numpy(float)[j] / 18.039
-        for sh in (-0.3, -0.1, 0.1, 0.3):
+    return out
+
+
+def pair_shift_devs(case, lay0, e, keys, contrib0, log_grid, table,
+                    shifts=(-0.3, -0.1, 0.1, 0.3)):
+    """What a drawn ammonium split (``pair_shift_ammonium`` = s) would do to the
+    velocity of the case's species at the point: s -> receptor -> the deposition with
+    the Vd of the shifted air over the fixed Vd's, less 1 [1] (`e` of
+    :func:`draw_errors`, the grid of :func:`grid_tables`)."""
+    air, j, mol = e["air"], e["j"], e["mol"]
+    nh4 = air["pNH4 [ug/m3]"].to_numpy(float)[j] / 18.039
+    recs = lay0.budget["receptor"].values
+    out = {}
+    for sh in shifts:
+        if case == "codeposition":
+            # NH3 times 1 + s (s < 0) or plus s pNH4 (s > 0) moves the NH3/SO2 ratio by
+            # that factor; the draws keep Vd(SO2)
+            f = np.full(len(keys), 1.0 + sh) if sh < 0 else (mol["NH3"] + sh * nh4) / mol["NH3"]
+            b = contrib0
+        else:
+            # deposition-only NH3: s < 0 keeps (1 + s) NH3, the acid ratio over 1 + s;
+            # s > 0 adds s pNH4 to NH3, the ratio times NH3 / (NH3 + s pNH4); the draws
+            # keep the point Vd of NH3
             f = np.full(len(keys), 1.0 / (1.0 + sh)) if sh < 0 else \
                 mol["NH3"] / (mol["NH3"] + sh * nh4)
             amt = np.full(len(keys), 1.0 + sh) if sh < 0 else 1.0 + sh * nh4 / mol["NH3"]
-            rs = _on_grid(log_grid, table, np.log(f)[None])[0]                 # (n, P, R)
             b = contrib0 * amt[:, None, None]
-            with np.errstate(invalid="ignore", divide="ignore"):
-                dev = (b * rs).sum(0) / b.sum(0) - 1.0
-            print(f"pair_shift_ammonium s = {sh:+.1f}: NH3 exact / fixed Vd - 1: " + ", ".join(
-                f"{rec} {dev[0, ri]:+.3f}" for ri, rec in enumerate(ds["receptor"].values)
-                if np.isfinite(dev[0, ri])))
+        rs = _on_grid(log_grid, table, np.log(f)[None])[0]                 # (n, P, R)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            dev = (b * rs).sum(0) / b.sum(0) - 1.0
+        out[sh] = {str(rec): float(dev[0, ri]) for ri, rec in enumerate(recs)
+                   if np.isfinite(dev[0, ri])}
+    return out
+
+
+def measure(case, base, work, site, year, draws, seed, grid, check):
+    line, target = CASES[case]
+    ks = np.exp(np.linspace(np.log(0.5), np.log(2.0), grid))
+    lay0, tables = grid_tables(base, work, line, (target,), ks)
+    if tables is None:
+        print(f"\n{case}: {site} {year} lacks SO2, HNO3 or NH3 deposition: skipped")
+        return {}
+    keys, contrib0, log_grid, table = tables[target]
+    e = draw_errors(case, lay0, work, site, year, draws, seed, keys, contrib0, log_grid,
+                    table)
+    a, air, j, outside = e["a"], e["air"], e["j"], e["outside"]
+    fixed, exact = e["fixed"], e["exact"]
+    print(f"\n{case}: Vd({target}) of {site} {year}, {draws} draws, seed {seed}; "
+          f"grid {grid} factors 0.5-2 ({outside:.2%} of the sample draws outside)")
+    print(f"{'receptor':18s} {'median |dev|':>12s} {'95% |dev|':>10s} {'max |dev|':>10s}"
+          f" {'mean dev':>9s}   quantiles 5/50/95 fixed Vd -> exact [kg ha-1]")
+    out = table_rows(case, lay0, e)
+    for rec, s in out.items():
+        print(f"{rec:18s} {s['median']:12.2e} {s['p95']:10.2e} {s['max']:10.2e}"
+              f" {s['mean']:+9.1e}   " + " ".join(f"{v:.3f}" for v in s["fixed"])
+              + " -> " + " ".join(f"{v:.3f}" for v in s["exact"]))
+    species = "SO2" if case == "codeposition" else "NH3"
+    for sh, dev in pair_shift_devs(case, lay0, e, keys, contrib0, log_grid, table).items():
+        print(f"pair_shift_ammonium s = {sh:+.1f}: {species} exact / fixed Vd - 1: "
+              + ", ".join(f"{rec} {d:+.3f}" for rec, d in dev.items()))
     # the engine on the drawn air itself (every sample its own factors)
     for dk in range(check):
         scale = {}

@@ -236,3 +236,16 @@ def test_acid_ratio_of_the_samples_of_section_9(study):
     want = tuple(_r(np.nanmedian(ar[site == s])) for s in ("ridge", "fell", "mere"))
     assert m.groups() == want
     assert np.isnan(ar[site == "farm"]).all()
+
+
+def test_receptor_surface_fix_sentence_of_section_7(demo):
+    """"(measured before the LAI-share fix below, after which the stand reads SO2 0.42,
+    NO2 0.16, O3 0.25)": Wesely's annual Vd over the farm's deciduous stand in 2021 now
+    (the numbers before the two fixes are history: the code that gave them is gone)."""
+    means, text = demo
+    m = re.search(r"after which the stand reads SO2 ([\d.]+), NO2 ([\d.]+), O3 ([\d.]+)[;)]",
+                  _flat(text))
+    assert m, "the receptor-surface fix's sentence of docs/methods_dry.md 7"
+    w = means(gas_scheme="wesely1989")
+    got = tuple(_v(w, g, "farm", "deciduous_forest") for g in ("SO2", "NO2", "O3"))
+    assert m.groups() == got, f"re-measure docs/methods_dry.md 7: {got}"

@@ -171,9 +171,8 @@ def test_kg_to_eq_end_to_end_hand_worked_periodictable(analysis_run):
     hand (1 eq per mol N, 2 eq per mol S; molar masses of periodictable) are the
     deposition of exceedance.csv, and its exceedance is the region-3 closed form
     k (CLmaxS + CLmaxN - CLminN), k = (CLmaxS N + (CLmaxN - CLminN) S - CLmaxS CLmaxN) /
-    (CLmaxS^2 + (CLmaxN - CLminN)^2) (docs/methods_analysis.md).  For the record, a
-    4-year demo subset at 10:50 UTC gave N 18.1718 kg = 1297.33 eq, S 9.45387 kg =
-    589.76 eq, Ex = 505.49 (k = 0.2511), ExnutN = 583.33 eq/ha/yr."""
+    (CLmaxS^2 + (CLmaxN - CLminN)^2) (docs/methods_analysis.md, "Units end to end", whose
+    numbers of this row are held by tests/test_docs_analysis_units.py)."""
     pt = pytest.importorskip("periodictable")
     out, _, _ = analysis_run
     b = pd.read_csv(out / "budget.csv")
