@@ -175,6 +175,14 @@ def read_precipitation(path, catalogue, flag_map=None):
         has_chem |= ~np.isnan(v) | c
     check_gauge_sampler(tab, sites, samplers, gauge, has_chem | ~np.isnan(ph) | ~np.isnan(cond),
                         flag_norm, rows=~repeat)
+    # no water collected, yet analysed: the 0 is a volume not recorded (a ratio of 0
+    # would read as a sampler catching nothing); masked with its reason
+    dry_sample = (sample == 0) & has_chem & ~repeat
+    if dry_sample.any():
+        col = "sample_depth" if tab.has("sample_depth") else "sample_volume"
+        parts.append(reason_where(dry_sample, f"{col} 0 with concentrations present (a "
+                                  "volume not recorded, written as 0?): read as missing"))
+        sample = np.where(dry_sample, np.nan, sample)
     empty = np.isnan(gauge) & np.isnan(sample) & ~has_chem & np.isnan(ph)
     reasons = join_reasons(parts)
     reasons = np.where(empty, join_reasons([reasons, np.full(n, "no values in the row", object)]),
