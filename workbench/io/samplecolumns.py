@@ -151,8 +151,8 @@ def ph_as_h_notes(file_name: str, sites, ph, rows) -> list[str]:
     ion balance.
 
     >>> ph_as_h_notes("p.csv", np.array(["a", "a", "b"]), np.array([1.2, 1.6, 5.0]),
-    ...               np.ones(3, bool))[0][:58]
-    'p.csv: pH at a: median 1.4 over 2 samples, below any pre'
+    ...               np.ones(3, bool))[0][:60]
+    'p.csv: pH at a: median 1.4 over 2 samples, below any precipi'
     """
     ok = rows & ~np.isnan(ph)
     if not ok.any():

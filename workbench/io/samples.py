@@ -176,8 +176,9 @@ def read_precipitation(path, catalogue, flag_map=None):
     check_gauge_sampler(tab, sites, samplers, gauge, has_chem | ~np.isnan(ph) | ~np.isnan(cond),
                         flag_norm, rows=~repeat)
     # no water collected, yet analysed: the 0 is a volume not recorded (a ratio of 0
-    # would read as a sampler catching nothing); masked with its reason
-    dry_sample = (sample == 0) & has_chem & ~repeat
+    # would read as a sampler catching nothing); masked with its reason.  A dry week
+    # (gauge 0) keeps its zeros: the screening judges chemistry on a dry week
+    dry_sample = (sample == 0) & has_chem & ~repeat & ~(gauge == 0)
     if dry_sample.any():
         col = "sample_depth" if tab.has("sample_depth") else "sample_volume"
         parts.append(reason_where(dry_sample, f"{col} 0 with concentrations present (a "
