@@ -1,5 +1,6 @@
-"""Field slips of a precipitation file's acidity, sample volume and trailing lines
-(docs/data_formats.md, "Field-data slips we check"; invented site "alpha").
+"""Field slips of a precipitation file's acidity, sample volume, gauge unit and trailing
+lines (docs/data_formats.md, "Precipitation, gauge and air slips (a fourth audit)";
+invented site "alpha").
 
 The acidity is read from a ``pH`` column without a unit.  Before: a column of the
 hydrogen ion (``H+ [ueq/L]``) was left unused with a note and the run went on without
@@ -132,3 +133,13 @@ def test_a_sample_volume_of_0_with_chemistry_is_read_as_missing(write, cat):
     assert "sample_volume 0 with concentrations present" in t.loc[t["line"] == 2,
                                                                    "reason"].iloc[0]
     assert t.loc[t["line"] == 4, "reason"].iloc[0] == ""
+
+
+@pytest.mark.parametrize("unit, k", [("0.1 mm", "0.1"), ("1/10 mm", "0.1")])
+def test_a_gauge_header_in_tenths_of_mm_gets_the_factor(write, cat, unit, k):
+    # before: "unknown unit '0.1 mm'" and nothing on what to write
+    p = _with_header(write, "gauge_depth [mm]", f"gauge_depth [{unit}]")
+    msg = located_error(read_precipitation, p, cat)
+    assert msg.startswith(f"{p}, line 1, column 'gauge_depth [{unit}]': unknown or "
+                          "dimensionally wrong unit"), msg
+    assert f"; a scaled unit: multiply the values by {k} and write 'mm': got '{unit}'" in msg
