@@ -143,3 +143,14 @@ def test_a_gauge_header_in_tenths_of_mm_gets_the_factor(write, cat, unit, k):
     assert msg.startswith(f"{p}, line 1, column 'gauge_depth [{unit}]': unknown or "
                           "dimensionally wrong unit"), msg
     assert f"; a scaled unit: multiply the values by {k} and write 'mm': got '{unit}'" in msg
+
+
+def test_a_hydrogen_ion_column_beside_the_ph_stays_a_column_not_used(write, cat):
+    # a laboratory's sheet giving both: the pH is read, the H+ column noted as before
+    lines = PRECIP.splitlines()
+    lines[0] += ",H+ [ueq/L]"
+    lines[1:] = [ln + ",15.8" for ln in lines[1:]]
+    p = write("p.csv", "\n".join(lines) + "\n")
+    ds, ledger = read_precipitation(p, cat)
+    np.testing.assert_allclose(ds["pH"].values[[0, 3]], [4.8, 4.6])
+    assert any("columns not used" in n and "H+ [ueq/L]" in n for n in ledger.notes)

@@ -114,8 +114,9 @@ def check_acidity_headers(tab: RawTable) -> None:
     """Refuse the acidity of a precipitation file written in a form not read.
 
     The acidity is read from a ``pH`` column without a unit.  A column of the hydrogen
-    ion (``H+ [ueq/L]``, ``H [umol/L]``, ``H3O+``) was left unused with a note (or
-    refused as "species not measured") and the run went on without the sample's acidity;
+    ion (``H+ [ueq/L]``, ``H [umol/L]``, ``H3O+``) in a file without a ``pH`` column was
+    left unused with a note (or refused as "species not measured") and the run went on
+    without the sample's acidity (beside a ``pH`` column it stays a column not used);
     a ``pH`` header with a concentration unit (``pH [ueq/L]``) had its unit ignored, so
     H+ values written under it were read as pH.  Both are errors at the header naming
     the header to write and the conversion (pH = 6 - log10(H+ in ueq/L); ueq/L and
@@ -124,7 +125,7 @@ def check_acidity_headers(tab: RawTable) -> None:
     example = "e.g. 13.8 ueq/L is pH 4.86"
     for name, h in tab.headers.items():
         raw = tab.raw_headers[name]
-        if h.name.strip().lower() in _H_ION_NAMES:
+        if h.name.strip().lower() in _H_ION_NAMES and not tab.has("pH"):
             raise InputError("the hydrogen ion as a concentration is not read (the acidity "
                              "is read from the pH)", file=tab.path, line=tab.header_line,
                              column=raw, value=raw,
