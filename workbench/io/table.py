@@ -31,7 +31,7 @@ from .tablecells import (CENSORED_ELSEWHERE, FORMULA_ERRORS, MISSING_TEXTS,  # n
                          SAMPLE_MISSING_TEXTS, _BLANK, number_hint)
 # the time texts (defined here before)
 from .tabletimes import (YEARS, _OFFSET, day_month_readings, end_of_day,  # noqa: F401
-                         end_of_day_note, parse_iso)
+                         end_of_day_note, order_witness, parse_iso)
 # the file's text and the shape of its rows (defined here before)
 from .tablerows import (_header_again, _open_text, _top_lines_again, check_unit_brackets,  # noqa: F401
                         decimal_comma_pairs, fields_error)
@@ -383,8 +383,13 @@ class RawTable:
                 hint = (" (an hour of 24 or more? hours run 00-23; only 24:00 may end a "
                         "day)")
             elif day_month_readings(str(s.loc[idx])):
+                both = day_month_readings(str(s.loc[idx]))
+                seen = order_witness(self.frame[name]) if " if day first, " in both else None
+                if seen is not None:
+                    both += (f"; line {int(self.lines[seen[0]])} has {seen[1]!r}, which "
+                             f"fits {seen[2]} only")
                 hint = (" (a date in day/month or month/day order? write year-month-day: "
-                        + day_month_readings(str(s.loc[idx])) + ")")
+                        + both + ")")
             raise self.error("not an ISO 8601 timestamp" + hint, row=int(idx), column=name,
                              value=s.loc[idx], expected="a timestamp such as 2020-01-09T14:00 "
                              "or 2020-01-09T14:00+01:00")
