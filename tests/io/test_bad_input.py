@@ -120,8 +120,12 @@ def test_unknown_land_use_suggests(write):
 
 def test_ph_out_of_range(write, cat):
     p = _precip(write, [ROW.replace(",4.8,", ",15.2,")])
+    _raises(read_precipitation, p, cat, match="p.csv, line 2, column 'pH': pH outside 0-14 "
+            "(H+ in ueq/L or umol/L under the pH header? 15.2 ueq/L is pH 4.82: write pH = "
+            "6 - log10(H+)): got '15.2', expected a pH between 0 and 14")
+    p = _precip(write, [ROW.replace(",4.8,", ",-0.2,")])
     _raises(read_precipitation, p, cat, match="p.csv, line 2, column 'pH': pH outside 0-14: "
-            "got '15.2', expected a pH between 0 and 14")
+            "got '-0.2', expected a pH between 0 and 14")
 
 
 def test_empty_file(write, cat):

@@ -82,3 +82,23 @@ def test_year_first_with_slashes_is_read_as_its_iso_form(write, cat, met_reader)
                                                                "2020/01/07 05:00", 1)), cat)
     np.testing.assert_array_equal(iso["time"].values, slashed["time"].values)
     np.testing.assert_array_equal(iso["temperature"].values, slashed["temperature"].values)
+
+
+@pytest.mark.parametrize("kind", ["precipitation", "air"])
+def test_a_date_fitting_one_order_only_is_named_beside_the_ambiguous_one(write, cat, kind):
+    # every start written day first: before, the message gave both readings of the
+    # first and left the user to tell which the file uses
+    text, reader = (PRECIP, read_precipitation) if kind == "precipitation" else (AIR, read_air)
+    text = (text.replace("2020-01-07T09:00", "07/01/2020 09:00", 1)
+                .replace("2020-01-14T09:00,2020-01-21", "14/01/2020 09:00,2020-01-21", 1))
+    p = write("f.csv", text)
+    lines = text.splitlines()
+    first = next(k for k, ln in enumerate(lines) if "07/01/2020" in ln) + 1
+    other = next(k for k, ln in enumerate(lines) if "14/01/2020" in ln) + 1
+    with pytest.raises(InputError) as err:
+        reader(p, cat)
+    msg = str(err.value)
+    assert msg.startswith(f"{p}, line {first}, column 'start': not an ISO 8601 timestamp "
+                          "(a date in day/month or month/day order? write year-month-day: "
+                          "2020-01-07T09:00 if day first, 2020-07-01T09:00 if month first; "
+                          f"line {other} has '14/01/2020 09:00', which fits day first only)"), msg

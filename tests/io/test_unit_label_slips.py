@@ -166,3 +166,13 @@ def test_met_precipitation_that_agrees_or_scatters_gets_no_note():
     # far off by a factor that is no unit (3): flagged samples, but no unit named
     gc = gauge_comparison(*_met_and_samples(12, 3.0))
     assert gc["suspicious"].all() and gauge_slip_notes(gc, "met.csv") == []
+
+
+def test_met_precipitation_a_tenth_of_the_gauge_asks_for_tenths_of_mm():
+    # a gauge count of 0.1 mm written as mm (common practice of some loggers and
+    # networks) gives met/gauge near 1/10 too; before, cm and mm only
+    from workbench.io.metchecks import gauge_comparison, gauge_slip_notes
+    notes = gauge_slip_notes(gauge_comparison(*_met_and_samples(12, 0.1)), "met.csv")
+    assert len(notes) == 1 and notes[0].endswith(
+        "near 1/10: cm and mm mixed between the met's precipitation and the gauge depths? "
+        "Or tenths of mm (a count of 0.1 mm) taken for mm?"), notes

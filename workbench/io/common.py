@@ -232,11 +232,31 @@ UNIT_SPELLINGS = {
 }
 
 
+#: A unit written with a scale before it: ``0.1 mm``, ``1/10 mm`` (a logger's count).
+_SCALED_UNIT = re.compile(r"^\s*(\d+(?:\.\d*)?|\.\d+)(?:\s*/\s*(\d+))?\s*([A-Za-zµμ%]\S*)\s*$")
+
+
+def scaled_unit_hint(unit) -> str:
+    """The advice for a unit written with a scale (a count of tenths of mm, ``0.1 mm``,
+    ``1/10 mm``), which pint does not read as a unit; "" for any other text.
+
+    >>> scaled_unit_hint("1/10 mm")
+    "; a scaled unit: multiply the values by 0.1 and write 'mm'"
+    >>> scaled_unit_hint("mm")
+    ''
+    """
+    m = _SCALED_UNIT.match(str(unit))
+    if not m:
+        return ""
+    k = float(m.group(1)) / (float(m.group(2)) if m.group(2) else 1.0)
+    return f"; a scaled unit: multiply the values by {k:g} and write {m.group(3)!r}"
+
+
 def unit_error(tab: RawTable, name: str, exc: Exception, expected: str) -> InputError:
     unit = tab.headers[name].unit
     hint = UNIT_SPELLINGS.get("".join(str(unit).split()).lower())
     return InputError(f"unknown or dimensionally wrong unit ({exc})"
-                      + (f"; write {hint}" if hint else ""), file=tab.path,
+                      + (f"; write {hint}" if hint else scaled_unit_hint(unit)), file=tab.path,
                       line=tab.header_line, column=tab.raw_headers[name],
                       value=unit, expected=expected)
 

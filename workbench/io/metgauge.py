@@ -55,8 +55,9 @@ def gauge_comparison(met, samples, low=0.5, high=2.0, min_depth_mm=2.0):
 
 
 #: Unit factors between two depth records (met / gauge) that a slip makes, with words
-#: (pint's definitions: 1 inch = 25.4 mm, 1 cm = 10 mm).
-DEPTH_SLIPS = ((25.4, "inch and mm"), (10.0, "cm and mm"))
+#: and a further question (pint's definitions: 1 inch = 25.4 mm, 1 cm = 10 mm).
+DEPTH_SLIPS = ((25.4, "inch and mm", ""),
+               (10.0, "cm and mm", " Or tenths of mm (a count of 0.1 mm) taken for mm?"))
 #: Samples of a site that must be compared before a slip is named, the share of them
 #: that must be far from their gauge, and how near the median ratio must come to a
 #: factor [1] (our choice).
@@ -90,11 +91,11 @@ def gauge_slip_notes(gc, file_name: str) -> list[str]:
         if len(g) < SLIP_MIN_SAMPLES or n_bad <= SLIP_SHARE * len(g):
             continue
         med = float(np.median(g["ratio"]))
-        for factor, words in DEPTH_SLIPS:
+        for factor, words, more in DEPTH_SLIPS:
             for f, text in ((factor, f"{factor:g}"), (1 / factor, f"1/{factor:g}")):
                 if not outside_band(np.array([med / f]), 1 - SLIP_RTOL, 1 + SLIP_RTOL)[0]:
                     notes.append(f"{file_name}: precipitation at {site}: {n_bad} of {len(g)} "
                                  f"samples far from their gauge depth, median met/gauge "
                                  f"{med:.3g}, near {text}: {words} mixed between the met's "
-                                 f"precipitation and the gauge depths?")
+                                 f"precipitation and the gauge depths?{more}")
     return notes

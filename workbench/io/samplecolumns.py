@@ -92,6 +92,82 @@ def _species_columns(tab: RawTable, allowed, what):
     return out
 
 
+#: Names of the hydrogen ion as a column of its own (any case): the acidity is read
+#: from the ``pH`` column only.
+_H_ION_NAMES = ("h", "h+", "h3o", "h3o+", "h_plus", "hplus", "h_ion", "h+_ion", "hydrogen",
+                "hydrogen_ion")
+#: Units a ``pH`` header may carry: none (``pH``), ``pH [1]``, ``pH [-]``.
+_PH_UNITS = (None, "", "1", "-")
+
+
+def ph_from_h(ueq_l: float) -> float:
+    """pH [-] of a hydrogen-ion concentration `ueq_l` [ueq/L = umol/L for H+]:
+    pH = -log10(H+ [mol/L]) = 6 - log10(H+ [umol/L]).
+
+    >>> round(ph_from_h(13.8), 2)
+    4.86
+    """
+    return 6.0 - float(np.log10(ueq_l))
+
+
+def check_acidity_headers(tab: RawTable) -> None:
+    """Refuse the acidity of a precipitation file written in a form not read.
+
+    The acidity is read from a ``pH`` column without a unit.  A column of the hydrogen
+    ion (``H+ [ueq/L]``, ``H [umol/L]``, ``H3O+``) in a file without a ``pH`` column was
+    left unused with a note (or refused as "species not measured") and the run went on
+    without the sample's acidity (beside a ``pH`` column it stays a column not used);
+    a ``pH`` header with a concentration unit (``pH [ueq/L]``) had its unit ignored, so
+    H+ values written under it were read as pH.  Both are errors at the header naming
+    the header to write and the conversion (pH = 6 - log10(H+ in ueq/L); ueq/L and
+    umol/L are the same number for H+, of charge 1).
+    """
+    example = "e.g. 13.8 ueq/L is pH 4.86"
+    for name, h in tab.headers.items():
+        raw = tab.raw_headers[name]
+        if h.name.strip().lower() in _H_ION_NAMES and not tab.has("pH"):
+            raise InputError("the hydrogen ion as a concentration is not read (the acidity "
+                             "is read from the pH)", file=tab.path, line=tab.header_line,
+                             column=raw, value=raw,
+                             expected="a column 'pH' (no unit) holding pH = 6 - log10(H+ "
+                             f"in ueq/L or umol/L), {example}")
+        if h.name.strip().lower() == "ph" and (h.name != "pH" or h.unit not in _PH_UNITS):
+            raise InputError("pH written with a unit or in another case", file=tab.path,
+                             line=tab.header_line, column=raw, value=raw,
+                             expected="the header 'pH' (pH has no unit; values of H+ in "
+                             "ueq/L or umol/L go in as pH = 6 - log10(H+), "
+                             f"{example})")
+
+
+#: A site's median pH below this reads as H+ in ueq/L under the pH header [-]
+#: (precipitation's weekly pH lies about 3.5 to 7 even where most acidified; from
+#: memory, common practice; 3 our choice).
+PH_MEDIAN_FLOOR = 3.0
+
+
+def ph_as_h_notes(file_name: str, sites, ph, rows) -> list[str]:
+    """One note per site whose median pH over `rows` lies below :data:`PH_MEDIAN_FLOOR`:
+    H+ in ueq/L written under the pH header (a clean site's H+, 1-14 ueq/L, passes the
+    0-14 range of pH).  The values are used as read; the screening then fails their
+    ion balance.
+
+    >>> ph_as_h_notes("p.csv", np.array(["a", "a", "b"]), np.array([1.2, 1.6, 5.0]),
+    ...               np.ones(3, bool))[0][:60]
+    'p.csv: pH at a: median 1.4 over 2 samples, below any precipi'
+    """
+    ok = rows & ~np.isnan(ph)
+    if not ok.any():
+        return []
+    med = pd.Series(ph[ok]).groupby(np.asarray(sites)[ok]).agg(["median", "size"])
+    out = []
+    for site, (m, k) in med[med["median"] < PH_MEDIAN_FLOOR].iterrows():
+        out.append(f"{file_name}: pH at {site}: median {m:.3g} over {int(k)} samples, below "
+                   f"any precipitation's (about 3.5 to 7; under {PH_MEDIAN_FLOOR:g} here): "
+                   f"H+ in ueq/L or umol/L under the pH header? read so, the median is pH "
+                   f"{ph_from_h(m):.2f}: write pH = 6 - log10(H+) (values used as read)")
+    return out
+
+
 #: Most negative concentration of an ion in precipitation kept as a blank-subtraction
 #: result (censored as below detection) [mg/L of the ion] (0.5: ten times or more the
 #: detection limits of the major ions by ion chromatography, about 0.01-0.05 mg/L, from

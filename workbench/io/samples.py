@@ -29,7 +29,9 @@ from .samplecolumns import (ALL_MASKED_ATTR, MASKED_RUNS_ATTR, PERIOD_HINTS,  # 
                             masked_runs,
                             PRECIP_NEGATIVE_TOL_MG_L, REQUIRED_EXAMPLES, _NOT_SPECIES, all_masked, _TRACE_TEXTS, _concentrations, _flag_words,
                             _interval_table, _mask_sentinels, _sentinel_reasons,
-                            _species_columns, _to_amount_by_unit, _trace_depth_error)
+                            _species_columns, _to_amount_by_unit, _trace_depth_error,
+                            check_acidity_headers, ph_as_h_notes,
+                            ph_from_h)
 # the unit slips of the sample files (defined here before)
 from .sampleunits import _air_slips, _unit_slips, unit_segments  # noqa: F401
 
@@ -75,6 +77,7 @@ def read_precipitation(path, catalogue, flag_map=None):
     (:func:`workbench.wet.unitslip.unit_slip_notes`).
     """
     tab, n, sites, start, end, samplers = _interval_table(path, catalogue, PRECIP_REQUIRED)
+    check_acidity_headers(tab)
     repeat, repeat_why, repeat_note = duplicate_rows(tab, sites, samplers, start, end,
                                                      "sample")
     check_time_zones(tab, sites, mask=~repeat)
@@ -134,8 +137,12 @@ def read_precipitation(path, catalogue, flag_map=None):
     bad = (ph < 0) | (ph > 14)
     if bad.any():
         i = int(np.flatnonzero(bad)[0])
-        raise tab.error("pH outside 0-14", row=i, column="pH", value=tab.frame["pH"].iloc[i],
-                        expected="a pH between 0 and 14")
+        hint = ""
+        if ph[i] > 14:      # H+ of 14-1e6 ueq/L: pH 6 down to 0
+            hint = (f" (H+ in ueq/L or umol/L under the pH header? {ph[i]:g} ueq/L is pH "
+                    f"{ph_from_h(ph[i]):.2f}: write pH = 6 - log10(H+))")
+        raise tab.error("pH outside 0-14" + hint, row=i, column="pH",
+                        value=tab.frame["pH"].iloc[i], expected="a pH between 0 and 14")
     if tab.has("conductivity"):
         raw_cond = tab.numbers("conductivity", missing="samples")
         u_cond = tab.unit_of("conductivity")
@@ -168,6 +175,15 @@ def read_precipitation(path, catalogue, flag_map=None):
         has_chem |= ~np.isnan(v) | c
     check_gauge_sampler(tab, sites, samplers, gauge, has_chem | ~np.isnan(ph) | ~np.isnan(cond),
                         flag_norm, rows=~repeat)
+    # no water collected, yet analysed: the 0 is a volume not recorded (a ratio of 0
+    # would read as a sampler catching nothing); masked with its reason.  A dry week
+    # (gauge 0) keeps its zeros: the screening judges chemistry on a dry week
+    dry_sample = (sample == 0) & has_chem & ~repeat & ~(gauge == 0)
+    if dry_sample.any():
+        col = "sample_depth" if tab.has("sample_depth") else "sample_volume"
+        parts.append(reason_where(dry_sample, f"{col} 0 with concentrations present (a "
+                                  "volume not recorded, written as 0?): read as missing"))
+        sample = np.where(dry_sample, np.nan, sample)
     empty = np.isnan(gauge) & np.isnan(sample) & ~has_chem & np.isnan(ph)
     reasons = join_reasons(parts)
     reasons = np.where(empty, join_reasons([reasons, np.full(n, "no values in the row", object)]),
@@ -212,6 +228,7 @@ def read_precipitation(path, catalogue, flag_map=None):
         dvars[f"{sp}_detection_limit"] = ("sample", dl[keep], {"units": "mol m-3"})
     ds = xr.Dataset(dvars, attrs={"source_file": str(tab.path)})
     ledger.notes.extend(tab.unit_switch_notes + _unit_slips(tab, ds, ion_cols, keep=keep))
+    ledger.notes.extend(ph_as_h_notes(tab.path.name, sites, ph, keep))
     ledger.notes.extend(typo_notes(tab.path.name, sites[keep], samplers[keep], tab.lines[keep]))
     return ds, ledger
 

@@ -31,10 +31,20 @@ from .tablecells import (CENSORED_ELSEWHERE, FORMULA_ERRORS, MISSING_TEXTS,  # n
                          SAMPLE_MISSING_TEXTS, _BLANK, number_hint)
 # the time texts (defined here before)
 from .tabletimes import (YEARS, _OFFSET, day_month_readings, end_of_day,  # noqa: F401
-                         end_of_day_note, parse_iso)
+                         end_of_day_note, order_witness, parse_iso)
 # the file's text and the shape of its rows (defined here before)
 from .tablerows import (_header_again, _open_text, _top_lines_again, check_unit_brackets,  # noqa: F401
                         decimal_comma_pairs, fields_error)
+
+
+def _parse_body(body: str) -> pd.DataFrame:
+    """The CSV text `body` (header first) as cells of text, one row per line below the
+    header (blank lines too); pandas' ParserError (or its warning) on a row of another
+    number of fields."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", pd.errors.ParserWarning)
+        return pd.read_csv(io.StringIO(body), dtype=str, keep_default_na=False,
+                           skip_blank_lines=False, skipinitialspace=True, index_col=False)
 
 
 @dataclass
@@ -121,11 +131,7 @@ class RawTable:
                              value=head[:60], expected="comma-separated values with a "
                              "decimal point (export as 'CSV UTF-8, comma-delimited')")
         try:
-            with warnings.catch_warnings():
-                warnings.simplefilter("error", pd.errors.ParserWarning)
-                df = pd.read_csv(io.StringIO(body), dtype=str, keep_default_na=False,
-                                 skip_blank_lines=False, skipinitialspace=True,
-                                 index_col=False)
+            df = _parse_body(body)
         except (pd.errors.ParserError, pd.errors.ParserWarning):
             odd = [k for k, ln in enumerate(rest) if ln.count('"') % 2]
             if odd:
@@ -135,10 +141,19 @@ class RawTable:
             rows = list(csv.reader(io.StringIO(body)))
             header = rows[0]
             n_head = len(header)
+            # a line of empty cells wider than the header (a sheet's used range below
+            # the data) holds nothing: a blank line, as one of the header's width
+            wide = [k for k, r in enumerate(rows[1:], 1)
+                    if len(r) > n_head and not any(c.strip() for c in r)]
             bad = next(((k + 2 + n_meta, r) for k, r in enumerate(rows[1:])
-                        if r and len(r) != n_head), (None, None))
+                        if len(r) != n_head and any(c.strip() for c in r)), (None, None))
             others = [r for r in rows[1:] if len(r) == n_head]
-            raise fields_error(path, bad[0], n_head, bad[1], header, others) from None
+            if bad[0] is not None or not wide:
+                raise fields_error(path, bad[0], n_head, bad[1], header, others) from None
+            for k in wide:
+                rest[k] = ""
+            body = "\n".join(rest)
+            df = _parse_body(body)
         lines = np.arange(len(df)) + n_meta + 2
         data = body[body.find("\n") + 1:] if "\n" in body else ""
         if '"' in data or _BLANK.search(data):            # else no cell has any to strip
@@ -368,8 +383,13 @@ class RawTable:
                 hint = (" (an hour of 24 or more? hours run 00-23; only 24:00 may end a "
                         "day)")
             elif day_month_readings(str(s.loc[idx])):
+                both = day_month_readings(str(s.loc[idx]))
+                seen = order_witness(self.frame[name]) if " if day first, " in both else None
+                if seen is not None:
+                    both += (f"; line {int(self.lines[seen[0]])} has {seen[1]!r}, which "
+                             f"fits {seen[2]} only")
                 hint = (" (a date in day/month or month/day order? write year-month-day: "
-                        + day_month_readings(str(s.loc[idx])) + ")")
+                        + both + ")")
             raise self.error("not an ISO 8601 timestamp" + hint, row=int(idx), column=name,
                              value=s.loc[idx], expected="a timestamp such as 2020-01-09T14:00 "
                              "or 2020-01-09T14:00+01:00")

@@ -91,6 +91,28 @@ def day_month_readings(text: str) -> str:
     return "no day/month reading fits; e.g. 2020-01-09T14:00"
 
 
+def order_witness(texts: pd.Series):
+    """The first of `texts` whose date, written day/month or month/day, fits one order
+    only (a day above 12): (position, text, "day first" or "month first"), or None.
+
+    >>> order_witness(pd.Series(["07/01/2016 14:00", "", "14/01/2016 14:00"]))
+    (2, '14/01/2016 14:00', 'day first')
+    >>> order_witness(pd.Series(["07/01/2016", "08/01/2016", "2016-01-14T09:00"])) is None
+    True
+    """
+    parts = texts.astype(str).str.strip().str.extract(f"^{_DAY_MONTH.pattern}$")
+    a = pd.to_numeric(parts[0], errors="coerce").to_numpy()
+    b = pd.to_numeric(parts[2], errors="coerce").to_numpy()
+    with np.errstate(invalid="ignore"):
+        day = (a > 12) & (a <= 31) & (b >= 1) & (b <= 12)
+        month = (b > 12) & (b <= 31) & (a >= 1) & (a <= 12)
+    one = np.flatnonzero(day | month)
+    if not len(one):
+        return None
+    k = int(one[0])
+    return k, str(texts.iloc[k]).strip(), "day first" if day[k] else "month first"
+
+
 def end_of_day_note(file_name: str, columns, lines) -> str:
     """The ledger note of the columns whose 24:00 labels were read as the next day's 00:00
     ("" for none), with the count of the rows and their lines (:func:`.ledger.compact_lines`).

@@ -48,7 +48,11 @@ BASIS_MIN_MENDED = 5
 #: any site kept 0.92 or more: benchmarks/basis_slip_alarms.py, docs/performance.md).
 BASIS_REST = 0.5
 #: Units of a depth column that are tried in place of the header's.
-DEPTH_UNITS = ("mm", "cm", "inch")     # inch: a gauge read in inches (additive, io slips)
+DEPTH_UNITS = ("mm", "cm", "inch", "0.1 mm")   # inch: a gauge read in inches; 0.1 mm:
+#                                  a logger or network's count of tenths of mm (io slips)
+#: Scaled depth units of :data:`DEPTH_UNITS` that pint has no name for: their unit and
+#: scale, and the words of a note.
+_SCALED_DEPTH = {"0.1 mm": ("mm", 0.1, "tenths of mm")}
 #: Fewest consecutive samples of a site (in time order, samples not evaluated skipped)
 #: that a depth unit mends for a note on a run of them [-] (three weeks; our choice).
 RUN_MIN = 3
@@ -466,10 +470,11 @@ def _depth_trials(units: dict, band: float = 1.0):
             continue
         header, unit, _ = units[col]
         for other in DEPTH_UNITS:
-            f = _factor(unit, other, None)
+            base, scale, words = _SCALED_DEPTH.get(other, (other, 1.0, other))
+            f = scale * _factor(unit, base, None)
             if _same_unit(f) or max(f, 1 / f) <= band:
                 continue
-            yield col, header, unit, other, f
+            yield col, header, unit, words, f
 
 
 def _reread_ratio(col: str, f: float, sample, gauge, options) -> np.ndarray:
