@@ -17,6 +17,22 @@ import textwrap
 NOTE_WIDTH = 79
 
 
+def labelled_path(label: str, path, width=None) -> list[str]:
+    """A label and a path (``scenario: PATH``) on one line when they fit `width`
+    characters (default :data:`NOTE_WIDTH`), else the label alone and the path on a
+    line of its own under it, indented two spaces and never broken (before, ``workbench
+    check`` printed ``scenario: PATH`` on one line of any length).
+
+    >>> labelled_path("scenario:", "demo/scenario.toml")
+    ['scenario: demo/scenario.toml']
+    >>> labelled_path("scenario:", "/a/deep/folder/scenario.toml", width=30)
+    ['scenario:', '  /a/deep/folder/scenario.toml']
+    """
+    width = NOTE_WIDTH if width is None else width
+    one = f"{label} {path}"
+    return [one] if len(one) <= width else [label, f"  {path}"]
+
+
 def console_lines(lines, width=None) -> list[str]:
     """Lines for the console, each wrapped to `width` characters (default
     :data:`NOTE_WIDTH`) under a hanging indent: its continuation lines start two spaces
