@@ -7,7 +7,7 @@ import pandas as pd
 import pytest
 
 from workbench.io import read_met
-from workbench.io.metgaps import COMPLETE_RECORD, describe_gaps, value_counts
+from workbench.io.metgaps import COMPLETE_RECORD, describe_gaps
 
 from tiny_inputs import plausible_met_csv
 
@@ -77,6 +77,7 @@ def test_a_netcdf_record_without_wind_is_not_complete(tmp_path, cat):
 
 
 def test_value_counts_ignores_hours_without_a_row_and_optional_variables():
+    from workbench.io.metgaps import value_counts
     rows = np.array([True, True, False, True])
     values = {"wind_speed": np.array([[1.0, 2.0, np.nan, 3.0]]),
               "friction_velocity": np.full((1, 4), np.nan)}      # optional: not counted
