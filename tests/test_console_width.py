@@ -123,3 +123,21 @@ def test_a_short_scenario_path_stays_on_the_label_line(tmp_path, capsys):
     edge = "x" * (NOTE_WIDTH - len("scenario: "))
     assert labelled_path("scenario:", edge) == [f"scenario: {edge}"]
     assert labelled_path("scenario:", edge + "y") == ["scenario:", f"  {edge}y"]
+
+
+def test_run_of_a_scenario_in_a_deep_folder_fits_80_columns(tmp_path, capsys):
+    """``workbench run`` of the same: ``wrote 13 files into PATH:`` and the heading of
+    the input notes, ``...; workbench check PATH):``, were each one line as long as the
+    path; now the label ends its line and the path stands alone under it."""
+    scenario = _deep_demo(tmp_path)
+    out = scenario.parent.parent / "a_run_folder_beside_the_data"
+    assert main(["run", str(scenario), "--out", str(out), "--quiet"]) == 0
+    printed = capsys.readouterr().out
+    assert _too_wide(printed) == []
+    lines = printed.splitlines()
+    n = len([f for f in out.iterdir() if f.is_file()])
+    assert lines[:3] == [f"wrote {n} files into:", f"  {out}", "  budget.csv"]
+    head = next(i for i, x in enumerate(lines) if x.startswith("notes on the inputs ("))
+    heading = _words(" ".join(lines[head:head + 3]))
+    assert heading.endswith(f"workbench check of the scenario): {scenario}"), heading
+    assert lines[head + 2] == f"  {scenario}"
