@@ -134,3 +134,51 @@ def test_a_network_groups_the_notes_that_differ_by_site_only():
     assert "the same at 9 more sites: s01, s02" in _words(" ".join(lines))
     assert len([x for x in input_note_lines(notes[:3], sites[:3])
                 if x.startswith("  - ")]) == 3
+
+
+def _demo_without_wind_at_fell(folder):
+    """A copy of the demo whose wind speed at fell is blank in every row (the rows and
+    every other value kept)."""
+    import gzip
+    from io import StringIO
+    shutil.copytree(DEMO_SCENARIO.parent, folder)
+    met = folder / "met.csv.gz"
+    text = gzip.open(met, "rt").read().splitlines(keepends=True)
+    meta = [x for x in text if x.startswith("#")]
+    df = pd.read_csv(StringIO("".join(x for x in text if not x.startswith("#"))),
+                     dtype=str, keep_default_na=False)
+    df.loc[df["site"] == "fell", "wind_speed [m/s]"] = ""
+    with gzip.open(met, "wt") as f:
+        f.write("".join(meta) + df.to_csv(index=False))
+    return folder / "scenario.toml"
+
+
+def test_a_site_without_wind_is_named_and_its_dry_part_missing(tmp_path, capsys):
+    """Every wind speed of fell blank: the run says so among its input notes (the met
+    note was "complete hourly record", left out as nothing amiss), the dry components
+    at fell are missing with their reason and its totals are partial, never complete
+    and never a zero."""
+    scenario = _demo_without_wind_at_fell(tmp_path / "demo")
+    out = tmp_path / "run"
+    assert main(["run", str(scenario), "--out", str(out), "--quiet"]) == 0
+    printed = capsys.readouterr().out
+    notes, _ = _printed_input_notes(printed)
+    fell = [n for n in notes if n.startswith("met fell: ")]
+    assert len(fell) == 1 and "complete hourly record" not in fell[0]
+    assert fell[0].endswith("wind speed has a value in 0 (none), relative humidity in "
+                            "69384"), fell[0]
+    summ = pd.read_csv(out / "summary.csv")
+    at = summ[summ["site"] == "fell"]
+    assert len(at) == 16
+    assert set(at["S_total_status"]) == {"partial"}
+    assert set(at["N_total_status"]) == {"partial"}
+    assert at["S_total_missing_components"].str.contains("SO2").all()
+    assert at["S_dry_share"].isna().all()                  # not a dry share of 0
+    budget = pd.read_csv(out / "budget.csv")
+    dry = budget[(budget["site"] == "fell") & (budget["pathway"] == "dry")
+                 & (budget["species"] == "SO2")]
+    assert set(dry["status"]) == {"missing"} and dry["flux_kg_ha"].isna().all()
+    assert dry["note"].str.contains("no deposition velocity for any hour").all()
+    others = budget[(budget["site"] == "ridge") & (budget["pathway"] == "dry")
+                    & (budget["species"] == "SO2")]
+    assert (others["status"] != "missing").all()

@@ -13,15 +13,15 @@ from workbench.grid_demo import make_demo_grid
 
 
 def _too_wide(text):
-    """The lines of `text` wider than NOTE_WIDTH that are not a path on a line of its
-    own (with at most a short label before it, as ``scenario: PATH``)."""
+    """The lines of `text` wider than NOTE_WIDTH that are not a path alone on a line of
+    its own (indented at most two spaces).  A label before a long path no longer
+    passes: ``scenario: PATH`` of a deep folder was 120 characters on one line."""
     bad = []
     for line in text.splitlines():
         if len(line) <= NOTE_WIDTH:
             continue
-        words = line.split()
-        path = words[-1] if words else ""
-        if os.path.exists(path) and len(line) - len(path) <= len("scenario: "):
+        path = line.strip()
+        if os.path.exists(path) and len(line) - len(path) <= 2:
             continue
         bad.append(line)
     return bad
@@ -93,3 +93,51 @@ def test_grid_notes_of_the_demo_grid_fit_80_columns(tmp_path, capsys):
     assert main(["check", str(scenario)]) == 0             # the grid's own check
     out = capsys.readouterr().out
     assert "grid 20 x 20 cells" in out and _too_wide(out) == []
+
+
+def _deep_demo(tmp_path):
+    """The demo's files in a folder whose path alone is longer than 79 characters."""
+    import shutil
+    deep = (tmp_path / "a_rather_long_folder_name_for_field_data"
+            / "station_exports_2016_to_2023" / "checked_copies" / "demo")
+    shutil.copytree(DEMO_SCENARIO.parent, deep,
+                    ignore=shutil.ignore_patterns("*.py", "__pycache__"))
+    assert len(str(deep / "scenario.toml")) > NOTE_WIDTH
+    return deep / "scenario.toml"
+
+
+def test_check_of_a_scenario_in_a_deep_folder_fits_80_columns(tmp_path, capsys):
+    """The ``scenario:`` line of a long path: the label, then the path alone on the
+    next line, whole (before, one line as long as the path and its label)."""
+    scenario = _deep_demo(tmp_path)
+    assert main(["check", str(scenario), "--quiet"]) == 0
+    out = capsys.readouterr().out
+    assert _too_wide(out) == []
+    lines = out.splitlines()
+    assert lines[:2] == ["scenario:", f"  {scenario}"]
+
+
+def test_a_short_scenario_path_stays_on_the_label_line(tmp_path, capsys):
+    from workbench.cli_status import labelled_path
+    assert labelled_path("scenario:", "s.toml") == ["scenario: s.toml"]
+    edge = "x" * (NOTE_WIDTH - len("scenario: "))
+    assert labelled_path("scenario:", edge) == [f"scenario: {edge}"]
+    assert labelled_path("scenario:", edge + "y") == ["scenario:", f"  {edge}y"]
+
+
+def test_run_of_a_scenario_in_a_deep_folder_fits_80_columns(tmp_path, capsys):
+    """``workbench run`` of the same: ``wrote 13 files into PATH:`` and the heading of
+    the input notes, ``...; workbench check PATH):``, were each one line as long as the
+    path; now the label ends its line and the path stands alone under it."""
+    scenario = _deep_demo(tmp_path)
+    out = scenario.parent.parent / "a_run_folder_beside_the_data"
+    assert main(["run", str(scenario), "--out", str(out), "--quiet"]) == 0
+    printed = capsys.readouterr().out
+    assert _too_wide(printed) == []
+    lines = printed.splitlines()
+    n = len([f for f in out.iterdir() if f.is_file()])
+    assert lines[:3] == [f"wrote {n} files into:", f"  {out}", "  budget.csv"]
+    head = next(i for i, x in enumerate(lines) if x.startswith("notes on the inputs ("))
+    heading = _words(" ".join(lines[head:head + 3]))
+    assert heading.endswith(f"workbench check of the scenario): {scenario}"), heading
+    assert lines[head + 2] == f"  {scenario}"

@@ -31,6 +31,7 @@ from .cli_check import (_check_grid_only, _inputs_text, _progress,  # noqa: F401
                         absent_site_lines, cmd_check)
 # what a run prints after it (defined here before)
 from .cli_status import (console_lines, failing_lines, input_note_lines,  # noqa: F401
+                         labelled_path,
                          run_note_lines, run_span_notes, site_status_lines, span_lines,
                          status_lines, uncertainty_lines)
 # the terminal: stderr's open line, Ctrl-C (defined here before)
@@ -181,7 +182,7 @@ def cmd_run(args) -> int:
     written, result, study = run_scenario(args.scenario, args.out, args.overwrite, args.quiet,
                                           resolution=args.resolution, workers=args.workers,
                                           scheduler=args.scheduler, block_sites=args.block_sites)
-    print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
+    print("\n".join(labelled_path(f"wrote {len(written)} files into", Path(args.out).resolve(), end=":")))
     for name in written:
         print(f"  {name}")
     _dask_log_note(args.out)                 # warnings of the workers, if any
@@ -275,7 +276,7 @@ def cmd_sensitivity(args) -> int:
     record = json.loads(written["provenance.json"].read_text(encoding="utf-8"))
     for line in design_lines(record["sensitivity_design"]):      # runs, seed, what was held
         print(line)
-    print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
+    print("\n".join(labelled_path(f"wrote {len(written)} files into", Path(args.out).resolve(), end=":")))
     for name in written:
         print(f"  {name}")
     return 0
@@ -286,7 +287,7 @@ def cmd_grid(args) -> int:
     written = run_grid(args.scenario, args.out, args.overwrite, args.quiet, block=args.block,
                        use_dask=False if args.in_process else None, workers=args.workers,
                        scheduler=args.scheduler)
-    print(f"wrote {len(written)} files into {Path(args.out).resolve()}:")
+    print("\n".join(labelled_path(f"wrote {len(written)} files into", Path(args.out).resolve(), end=":")))
     for name in written:
         print(f"  {name}")
     _dask_log_note(args.out)                 # warnings of the workers, if any

@@ -23,8 +23,8 @@ def cmd_check(args) -> int:
     if _check_grid_only(args.scenario):
         return 0
     prep = prepare(args.scenario, progress=_progress(args.quiet))
-    from .cli_status import console_lines
-    print(f"scenario: {prep.scenario.path}")         # a path is never broken
+    from .cli_status import console_lines, labelled_path
+    print("\n".join(labelled_path("scenario:", prep.scenario.path)))  # a path never broken
     print(_inputs_text(prep.study.inputs))
     for line in console_lines(absent_site_lines(prep.study.inputs)):
         print(line)
@@ -57,8 +57,8 @@ def _check_grid_only(path) -> bool:
     grid = open_grid(paths["met"], paths["air"], paths["land_use"])
     p = sc.data["period"]
     periods = make_periods(grid, p["resolution"], p["start"], p["end"])
-    from .cli_status import console_lines
-    print(f"scenario: {sc.path}")
+    from .cli_status import console_lines, labelled_path
+    print("\n".join(labelled_path("scenario:", sc.path)))
     lines = [describe(grid)] + [f"note: {note}" for note in grid.notes]
     lines.append(f"periods: {len(periods)} {p['resolution']} "
                  f"period{'s' if len(periods) != 1 else ''}")

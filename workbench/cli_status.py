@@ -17,6 +17,25 @@ import textwrap
 NOTE_WIDTH = 79
 
 
+def labelled_path(label: str, path, width=None, end: str = "") -> list[str]:
+    """A label and a path (``scenario: PATH``, ``wrote 13 files into PATH:``) on one
+    line when they fit `width` characters (default :data:`NOTE_WIDTH`), else the label
+    (with `end`) alone and the path on a line of its own under it, indented two spaces
+    and never broken (before, ``workbench check`` printed ``scenario: PATH`` and
+    ``workbench run`` ``wrote 13 files into PATH:`` on one line of any length).
+
+    >>> labelled_path("scenario:", "demo/scenario.toml")
+    ['scenario: demo/scenario.toml']
+    >>> labelled_path("scenario:", "/a/deep/folder/scenario.toml", width=30)
+    ['scenario:', '  /a/deep/folder/scenario.toml']
+    >>> labelled_path("wrote 2 files into", "/a/deep/folder/run", width=30, end=":")
+    ['wrote 2 files into:', '  /a/deep/folder/run']
+    """
+    width = NOTE_WIDTH if width is None else width
+    one = f"{label} {path}{end}"
+    return [one] if len(one) <= width else [f"{label}{end}", f"  {path}"]
+
+
 def console_lines(lines, width=None) -> list[str]:
     """Lines for the console, each wrapped to `width` characters (default
     :data:`NOTE_WIDTH`) under a hanging indent: its continuation lines start two spaces
@@ -383,12 +402,20 @@ def input_note_lines(notes, site_ids=(), base=None, scenario=None, shown=None,
         return []
     where = 'report.html, "Input rows"; provenance.json, input_notes'
     check = f"; workbench check {scenario}" if scenario else ""
-    lines = [f"notes on the inputs ({where}{check}):"] + ["  - " + n for n in kept[:shown]]
+    # a scenario path too long for a line of its own with "):" after it: named once,
+    # alone on the line under the heading (never broken, never over the width)
+    long = bool(scenario) and len(f"  {scenario}):") > NOTE_WIDTH
+    if long:
+        check = "; workbench check of the scenario"
+    lines = [f"notes on the inputs ({where}{check}):"]
+    path_line = [f"  {scenario}"] if long else []
+    notes = ["  - " + n for n in kept[:shown]]
     if len(kept) > shown:
-        lines.append(f"  and {len(kept) - shown} more: report.html (\"Input rows\"), "
+        notes.append(f"  and {len(kept) - shown} more: report.html (\"Input rows\"), "
                      "provenance.json (input_notes)"
-                     + (f", workbench check {scenario}" if scenario else ""))
-    return console_lines(lines)
+                     + (", workbench check of the scenario" if long else
+                        f", workbench check {scenario}" if scenario else ""))
+    return console_lines(lines) + path_line + console_lines(notes)
 
 
 def uncertainty_lines(out, result) -> list[str]:

@@ -59,7 +59,11 @@ def surface_layer(opt, block, surf, met_surf, receptors, st, site) -> dict:
 
     # --- 1. inputs, pressure, air ------------------------------------------------------
     temp, u, rh = st("temperature"), st("wind_speed"), st("relative_humidity")
-    k_down, precip = st("solar_radiation"), st("precipitation")
+    # a pyranometer reads a few W m-2 below zero at night (its thermal offset; common
+    # practice), which the reader accepts down to -20 W m-2: no light, taken as 0 here
+    # once for every path (Wesely 1989's r_dc = 100 (1 + 1000/(G + 10)) turned negative
+    # below G = -10 W m-2 and Eq. 3 opened the stomata at night; NaN stays NaN)
+    k_down, precip = np.maximum(st("solar_radiation"), 0.0), st("precipitation")
     pres, pressure_estimated = station_pressure(st("pressure"), site("elevation"))
     rho = air_density(temp, pres)
     nu = kinematic_viscosity(temp, pres)

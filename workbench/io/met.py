@@ -448,7 +448,8 @@ def _netcdf_body(raw, path, catalogue, group_sites=None):
             lo_t, hi_t = min(lo_t, int(ti.min())), max(hi_t, int(ti.max()))
         notes = metchecks.describe_gaps(xr.Dataset(
             {"row_present": (("site", "time"), present[has])},
-            coords={"site": ids[k0:k1][has], "time": t_first + np.arange(n_grid) * HOUR}))
+            coords={"site": ids[k0:k1][has], "time": t_first + np.arange(n_grid) * HOUR}),
+            values={k: g[has] for k, g in grids.items()})
         gaps.update(zip(ids[k0:k1][has], notes))
         del values, grids, present
     if not kept_sites.any():

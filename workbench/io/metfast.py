@@ -312,7 +312,7 @@ def _checked(rows, path, catalogue, ids, units, raw_headers, variables, hour, dr
             notes = metchecks.describe_gaps({   # what it reads of a Dataset, without one
                 "row_present": SimpleNamespace(values=present),
                 "site": SimpleNamespace(values=np.array(site_ids[lo:hi], dtype=object)),
-                "time": SimpleNamespace(values=times)})
+                "time": SimpleNamespace(values=times)}, values=grids)
         return grp, inv, [str(u) for u in uniq], empty, notes, again, of, site_notes
 
     # groups in flight: one per thread (map_ordered), so each is smaller on more threads

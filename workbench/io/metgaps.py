@@ -7,19 +7,75 @@ from __future__ import annotations
 
 import numpy as np
 
+from .metvars import MET_VARIABLES
 
-#: The words of a site's note when its met record has no missing hour
+#: The words of a site's note when its met record has a row for every hour and a value
+#: of every required variable (:data:`VALUE_NAMES`) in every hour
 #: (``met farm: complete hourly record 2016-01-01T00:00 to ...``): a note that nothing is
 #: amiss, which the end of ``workbench run`` leaves out of its input notes
 #: (:func:`workbench.cli_status.input_note_lines`).
 COMPLETE_RECORD = "complete hourly record"
 
+#: The variables whose hours with a value the note of a site counts: the required ones
+#: of :data:`workbench.io.metvars.MET_VARIABLES` (the optional ones are often absent).
+VALUE_NAMES = tuple(k for k, (_, req, _) in MET_VARIABLES.items() if req)
 
-def describe_gaps(met) -> list[str]:
-    """Text notes on missing hours per site between its first and last row."""
+
+def value_counts(values, rows, i: int) -> str:
+    """The hours with a value of each variable of :data:`VALUE_NAMES` that lacks one in
+    some hour with a row of the site, as words ("" when none lacks one).
+
+    Parameters
+    ----------
+    values : dict of str to ndarray
+        Each variable on (site, time) [any unit], NaN where no value.
+    rows : ndarray of bool
+        The hours of the site that have a row (its ``row_present``).
+    i : int
+        The site (position on the site axis of `values`).
+
+    >>> v = {"wind_speed": np.full((1, 4), np.nan), "temperature": np.ones((1, 4)),
+    ...      "relative_humidity": np.array([[0.5, np.nan, 0.5, 0.5]])}
+    >>> value_counts(v, np.ones(4, bool), 0)
+    'of its 4 hours with a row, wind speed has a value in 0 (none), relative humidity in 3'
+    >>> value_counts(v, np.array([True, False, True, True]), 0)[:50]
+    'of its 3 hours with a row, wind speed has a value '
+    >>> value_counts({"temperature": np.ones((1, 4))}, np.ones(4, bool), 0)
+    ''
+    """
+    rows = np.asarray(rows, bool)
+    n = int(rows.sum())
+    words = []
+    for name in VALUE_NAMES:
+        if name not in values:
+            continue
+        k = int(np.count_nonzero(~np.isnan(np.asarray(values[name][i], float)[rows])))
+        if k < n:
+            what = name.replace("_", " ")
+            count = f"{k} (none)" if k == 0 else str(k)
+            words.append(f"{what} in {count}" if words else f"{what} has a value in {count}")
+    return f"of its {n} hours with a row, " + ", ".join(words) if words else ""
+
+
+def describe_gaps(met, values=None) -> list[str]:
+    """Text notes on missing hours per site between its first and last row, and on the
+    hours without a value of a required variable (:func:`value_counts`): a site whose
+    hours all have a row but whose wind speed is blank throughout is not "complete".
+
+    Parameters
+    ----------
+    met : xarray.Dataset or mapping
+        ``row_present``, ``site`` and ``time`` (each with ``.values``), and the
+        variables on (site, time) when `values` is None.
+    values : dict of str to ndarray, optional
+        Each variable on (site, time), NaN where no value (the grids of a reader that
+        builds no Dataset); default: the variables of :data:`VALUE_NAMES` in `met`.
+    """
     notes = []
     present = met["row_present"].values
     times = met["time"].values
+    if values is None:
+        values = {k: met[k].values for k in VALUE_NAMES if k in met}
     for i, site in enumerate(met["site"].values):
         p = present[i]
         if not p.any():
@@ -28,8 +84,13 @@ def describe_gaps(met) -> list[str]:
         a, b = np.flatnonzero(p)[[0, -1]]
         inner = ~p[a:b + 1]
         n_miss = int(inner.sum())
+        counts = value_counts(values, p, i)
+        span = f"{str(times[a])[:16]} to {str(times[b])[:16]} UTC"
+        if n_miss == 0 and not counts:
+            notes.append(f"met {site}: {COMPLETE_RECORD} {span}")
+            continue
         if n_miss == 0:
-            notes.append(f"met {site}: {COMPLETE_RECORD} {str(times[a])[:16]} to {str(times[b])[:16]} UTC")
+            notes.append(f"met {site}: a row for every hour {span}, not every value: {counts}")
             continue
         edges = np.diff(np.concatenate([[0], inner.astype(int), [0]]))
         starts, ends = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
@@ -38,7 +99,8 @@ def describe_gaps(met) -> list[str]:
                      f"{len(starts)} gap{'s' if len(starts) != 1 else ''}; longest "
                      f"{int(ends[k] - starts[k])} h from {str(times[a + starts[k]])[:16]} UTC"
                      + clock_forward_hint(times[a + starts[(ends - starts) == 1]],
-                                          (b - a + 1) / 8766.0))
+                                          (b - a + 1) / 8766.0)
+                     + (f"; {counts}" if counts else ""))
     return notes
 
 
