@@ -417,9 +417,10 @@ class Graph:
         self._store.clear()
         self._bytes = 0
 
-    def steps(self, identity: str, counts=None) -> "Steps":
-        """The velocity steps of one calculation on inputs of this `identity`."""
-        return Steps(self, identity, counts)
+    def steps(self, identity: str, counts=None, air: str | None = None) -> "Steps":
+        """The velocity steps of one calculation on inputs of this `identity` (`air`:
+        the identity of an air the steps that read it were given, see :class:`Steps`)."""
+        return Steps(self, identity, counts, air)
 
 
 MISSING = _MISSING
@@ -431,26 +432,36 @@ class Steps:
     `identity` names the met block and the surfaces (a study's token and the key of
     its surfaces, or a content digest); each step's key is derived from its declared
     reads, this identity, its parameters and the keys of the steps it is run on.
+
+    `air`, where given, is the key of an air other than the one `identity` stands for
+    (the Monte Carlo's grid of scaled air, :mod:`workbench.analysis.airvd`): a step run
+    with ``reads_air=True`` (one that reads the hourly inputs made from the air) has it
+    in its key as well; the others, and so their results, are those of the same met
+    and surfaces whatever the air (computed once for the grid's runs).
     """
 
-    def __init__(self, graph: Graph, identity: str, counts=None):
-        self.graph, self.identity, self.counts = graph, identity, counts
+    def __init__(self, graph: Graph, identity: str, counts=None, air: str | None = None):
+        self.graph, self.identity, self.counts, self.air = graph, identity, counts, air
         self.keys = {}
 
-    def _deps(self, after):
+    def _deps(self, after, reads_air=False):
         deps = {"inputs": Node(f"input:met+surfaces:{self.identity}", None)}
+        if reads_air and self.air is not None:
+            deps["air"] = Node(self.air, None)
         deps.update({d: Node(self.keys[d], None) for d in after})
         return deps
 
-    def run(self, name, compute, opt, after=(), **params):
-        """``compute(view)`` of step `name` (cached); `after`: the steps it reads."""
-        node = self.graph.run(name, {"dry": opt}, self._deps(after), params,
+    def run(self, name, compute, opt, after=(), reads_air=False, **params):
+        """``compute(view)`` of step `name` (cached); `after`: the steps it reads;
+        `reads_air`: it reads the hourly inputs made from the air."""
+        node = self.graph.run(name, {"dry": opt}, self._deps(after, reads_air), params,
                               fn=lambda o, **_: compute(o.dry), counts=self.counts)
         self.keys[name] = node.key
         return node.value
 
     def lookup(self, name, opt, after=(), **params):
-        """(key, cached value or :data:`MISSING`, guarded view) of a step."""
+        """(key, cached value or :data:`MISSING`, guarded view) of a step (one that does
+        not read the air)."""
         st = STAGES[name]
         deps = self._deps(after)
         key = self.graph.key(st, {"dry": opt}, deps, params)

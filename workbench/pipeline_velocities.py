@@ -82,10 +82,14 @@ class _StudyVelocities:
     def _group_velocities(self, dry_options, overrides, met: Node, surf: Node,
                           receptors, air: Node | None = None) -> Node:
         """The velocities stage on the sites of `met` and some receptors (None: all);
-        `air` another air than the study's (its key then names the steps' inputs too:
-        the steps read the hourly ratios made from it)."""
-        ident = f"{met.key}+{surf.key}" + ("" if air is None else f"+{air.key}")
-        steps = self.graph.steps(ident, self.counts)
+        `air` another air than the study's (its key then enters the keys of the steps
+        that read the hourly ratios made from it, the gases'; the surface layer, the
+        canopy state and the particle modes are those of the study's own run:
+        :class:`workbench.graph.Steps`, :data:`workbench.drydep.core_steps.READS_AIR`)."""
+        ident = f"{met.key}+{surf.key}"
+        steps = self.graph.steps(ident, self.counts, None if air is None else air.key)
+        if air is not None:
+            ident += f"+{air.key}"
         return self._run("velocities", {"dry": dry_options},
                          {"met": met, "surfaces": surf, "catalogue": self._catalogue_node(overrides),
                           "steps": Node(f"input:steps:{ident}", steps),

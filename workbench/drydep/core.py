@@ -53,8 +53,9 @@ from .options import DryOptions
 # the hourly block (defined here before; looked up here by velocities and _template)
 from .core_hourly import _hourly  # noqa: F401
 # the codes, the hours counted and the steps of the graph (defined here before)
-from .core_steps import (CLOUD_SOURCE, COUNT_FLAGS, METHOD, NH3_BIDIRECTIONAL_NOTE,  # noqa: F401
-                         NH3_NOTE, _FROST, _MICROMET_OPTIONS, _GAS_OPTIONS,
+# (AIR_DERIVED: the hourly inputs made from the air, read when present)
+from .core_steps import (AIR_DERIVED, CLOUD_SOURCE, COUNT_FLAGS, METHOD,  # noqa: F401
+                         NH3_BIDIRECTIONAL_NOTE, NH3_NOTE, _FROST, _MICROMET_OPTIONS, _GAS_OPTIONS,
                          _PARTICLE_OPTIONS, _PREV, _STATE_OPTIONS, _STATE_OUT, _asked,
                          _made, _mode_lookup, _stage, _summaries)
 
@@ -62,13 +63,6 @@ from .core_steps import (CLOUD_SOURCE, COUNT_FLAGS, METHOD, NH3_BIDIRECTIONAL_NO
 MET_VARIABLES = ("wind_speed", "temperature", "relative_humidity", "solar_radiation",
                  "precipitation", "pressure", "cloud_cover", "friction_velocity",
                  "sensible_heat_flux", "surface_wet", "snow_cover")
-#: Hourly inputs derived from the air concentrations (site, time), read when present:
-#: the NH3/SO2 molar ratio of the co-deposition option [1]
-#: (:func:`workbench.drydep.codeposition.hourly_ratio`) and the coarse fraction of a
-#: particle species from the sampler of each hour [1]
-#: (:func:`workbench.drydep.particle_fractions.hourly_sampler_fractions`).
-AIR_DERIVED = ("nh3_so2_ratio", "nh3_acid_ratio") + tuple(f"coarse_fraction_{sp}" for sp in
-                                         ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa"))
 #: Hourly inputs derived from the site's declared history (site, time), read when
 #: present: the class under the wind mast where it follows the land use
 #: (:func:`workbench.surfacehistory.mast_in_force`; -1 the surface of the catalogue).

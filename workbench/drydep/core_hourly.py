@@ -23,8 +23,8 @@ from . import particles as _particles
 from . import seasons as _seasons
 from . import siteblocks as _blocks
 from . import wetness as _wetness
-from .core_steps import (CLOUD_SOURCE, METHOD, NH3_BIDIRECTIONAL_NOTE, NH3_NOTE, _FROST,
-                         _PREV, _STATE_OUT, _made, _mode_lookup, _stage, _summaries)
+from .core_steps import (AIR_DERIVED, CLOUD_SOURCE, METHOD, NH3_BIDIRECTIONAL_NOTE,
+                         NH3_NOTE, _FROST, _PREV, _STATE_OUT, _made, _mode_lookup, _stage, _summaries)
 from .options import DryOptions
 
 
@@ -78,10 +78,17 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         met_surf = met_surf.sel(site=block["site"].values)
     n_s, n_t, n_r = block.sizes["site"], block.sizes["time"], len(receptors)
 
-    def st(name):  # (site, 1, time)
-        if name not in block:
-            return np.full((n_s, 1, n_t), np.nan)
-        return np.asarray(block[name].values, dtype=float)[:, None, :]
+    def of(data):
+        def st(name):  # (site, 1, time)
+            if name not in data:
+                return np.full((n_s, 1, n_t), np.nan)
+            return np.asarray(data[name].values, dtype=float)[:, None, :]
+        return st
+    st = of(block)
+    # steps 1-5 read the met alone, not the inputs made from the air (READS_AIR): the
+    # Monte Carlo's velocity runs on scaled air share them (workbench.graph.Steps)
+    met_block = block.drop_vars([v for v in AIR_DERIVED if v in block])
+    st_met = of(met_block)
 
     def site(name):  # (site, 1, 1)
         return np.asarray(surf[name].values, dtype=float)[:, None, None]
@@ -90,7 +97,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
         return np.asarray(values)[None, :, None]
 
     def micromet(opt):  # steps 1-4 (workbench.drydep.micromet)
-        return _micromet.surface_layer(opt, block, surf, met_surf, receptors, st, site)
+        return _micromet.surface_layer(opt, met_block, surf, met_surf, receptors, st_met, site)
 
     rset = tuple(receptors)                  # a cache may serve several receptor sets
     m = _stage(cache, "micromet", micromet, opt, receptors=rset)
@@ -98,7 +105,7 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
      h_m, method, ok, theta_limited, night, us_r, floor_used, h_r, inv_l, z_ref, raised, ra,
      cap_used, valid, z0_r) = (m[k] for k in _micromet.OUT)
 
-    def season_wetness(opt):
+    def season_wetness(opt, block=met_block, st=st_met):  # the met alone (READS_AIR)
         dew_rule = _wetness.resolve_dew_rule(opt.dew_rule, _gas.get_scheme(opt.gas_scheme))
         # --- 5. season and wetness -------------------------------------------------------------
         times = block["time"].values

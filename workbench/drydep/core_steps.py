@@ -85,6 +85,23 @@ _graph.declare("particle_mode_vd", {"dry": _PARTICLE_OPTIONS}, freeze=True,
 
 _STATE_OUT = ("cat", "cat_src", "wet", "kind", "wet_src")
 
+#: Hourly inputs derived from the air concentrations (site, time), read when present:
+#: the NH3/SO2 molar ratio of the co-deposition option [1]
+#: (:func:`workbench.drydep.codeposition.hourly_ratio`), the acid ratio of
+#: ``nh3_acid_ratio_from_air`` [1] and the coarse fraction of a particle species from
+#: the sampler of each hour [1]
+#: (:func:`workbench.drydep.particle_fractions.hourly_sampler_fractions`).
+AIR_DERIVED = ("nh3_so2_ratio", "nh3_acid_ratio") + tuple(f"coarse_fraction_{sp}" for sp in
+                                         ("pSO4", "pNO3", "pNH4", "pNa", "pCl", "pCa"))
+#: The steps that read the hourly inputs of :data:`AIR_DERIVED` (the gases: the NH3/SO2
+#: and acid ratios): keyed on the air too where a calculation is given another air than
+#: its study's (:class:`workbench.graph.Steps`).  The others are handed the met without
+#: those inputs (:func:`workbench.drydep.core_hourly._hourly`), so that the velocity runs
+#: on the Monte Carlo's grid of scaled air (:mod:`workbench.analysis.airvd`) share
+#: their surface layer, canopy state and particle modes; the particles' coarse
+#: fractions weigh the cached modes outside the steps.
+READS_AIR = frozenset({"gas_vd"})
+
 
 def _stage(cache, stage: str, compute, opt, after=(), **params):
     """``compute(opt)`` of a step, or its cached result (`cache` None: no caching).
@@ -96,7 +113,7 @@ def _stage(cache, stage: str, compute, opt, after=(), **params):
     """
     if cache is None:
         return compute(opt)
-    return cache.run(stage, compute, opt, after, **params)
+    return cache.run(stage, compute, opt, after, reads_air=stage in READS_AIR, **params)
 
 
 def _mode_lookup(cache, opt, mode):
