@@ -30,6 +30,27 @@ CURVES = """() => {
 }"""
 
 
+#: JavaScript: the boxes of the two panels' x axis titles and of the figure [px].
+AXIS_TITLES = """() => {
+  const el = document.querySelector('.jp-OutputArea .js-plotly-plot');
+  const box = e => { const b = e.getBoundingClientRect();
+                     return {left: b.left, right: b.right, top: b.top, bottom: b.bottom,
+                             text: e.textContent}; };
+  return {titles: [...el.querySelectorAll('.g-xtitle text, .g-x2title text')].map(box),
+          figure: box(el.querySelector('.main-svg'))};
+}"""
+
+
+def _axis_titles_apart(page):
+    """The x axis titles of the two panels apart and inside the figure (a title of
+    25 characters ran into the other panel's: "every season has air dataevery...")."""
+    got = page.evaluate(AXIS_TITLES)
+    a, b = got["titles"]
+    assert b["left"] - a["right"] >= 4, got
+    for t in (a, b):
+        assert t["left"] >= got["figure"]["left"] and t["bottom"] <= got["figure"]["bottom"], got
+
+
 def _put_notebook(lab, token, name, scenario):
     """The sensitivity notebook on `scenario`, written into the server's folder."""
     nb = nbformat.read(NOTEBOOKS / "sensitivity.ipynb", as_version=4)
@@ -118,6 +139,7 @@ def test_every_control_of_the_sensitivity_explorer(lab, token, page, tmp_path):
     xs = sorted(_curve(page)["x"])
     assert xs[0] == pytest.approx(low) and xs[-1] == pytest.approx(high), (readout(rng), xs)
     assert "in force" in app.inner_text() and "Drawn: the 3 values swept" in app.inner_text()
+    _axis_titles_apart(page)
     _screenshot(page, tmp_path, "sensitivity_z0")
     # a yes-or-no assumption: no range, no values; drawn as its control names it
     key.select_option(label="completeness: every season has air data")
@@ -140,6 +162,7 @@ def test_every_control_of_the_sensitivity_explorer(lab, token, page, tmp_path):
     assert receptor.locator("option").first.inner_text() == "wetland"
     run()
     assert "mere · wetland · 2020-2021" in page.evaluate(CURVES)["title"]
+    _axis_titles_apart(page)          # the widest legend: "N total (partial, no NO2)"
     # the export: the figure shown, as SVG, named in the message
     app.locator(".widget-dropdown select").last.select_option("svg")
     app.locator(".widget-button", has_text="Export figures").click()
