@@ -82,3 +82,22 @@ def test_the_note_says_when_the_baseline_is_a_point_beside_the_values(app):
     app.run()
     assert "Drawn:" not in app.note_w.value
     assert len(app.fig.data[0].x) == 6
+
+
+def test_every_assumption_name_fits_under_a_panel_of_the_sweep():
+    """Under the 540 px figure's two panels (legend beside them) a title's lines stand
+    about 160 px apart: "every season has air data" on one line ran into the other
+    panel's (seen in the browser; tests/test_browser_sensitivity.py measures it)."""
+    import pandas as pd
+
+    from workbench.ui.figures_curves import SWEEP_AXIS_CHARS, sensitivity_curves
+    table = pd.DataFrame({"value": [0.1, 0.2] * 6,
+                          "total": [f"{el}_{pw}" for el in "SN" for pw in ("wet", "dry", "total")
+                                    for _ in range(2)],
+                          "rate": 1.0, "status": "complete"})
+    for a in ASSUMPTIONS.values():
+        fig = sensitivity_curves(table, a.label, None)
+        for axis in (fig.layout.xaxis, fig.layout.xaxis2):
+            lines = axis.title.text.split("<br>")
+            assert max(map(len, lines)) <= SWEEP_AXIS_CHARS, (a.key, lines)
+            assert " ".join(lines) == a.label and axis.automargin is True
