@@ -20,7 +20,12 @@ Cases (``--cases``, default all):
   trivial drawing) [s];
 - ``drawing``: each figure written with a kaleido server kept running (its browser
   started before the clock), i.e. the drawing of the figure alone [s];
-- ``scale1``: every figure together at scale 1 instead of 2 (time and PNG bytes).
+- ``scale1``: every figure together at scale 1 instead of 2 (time and PNG bytes);
+- ``clicks``: three clicks of the button in a row, each writing every figure
+  together, with a browser started for each click (``keep=False``, the button before)
+  and with the browser kept between clicks (``keep=True``, the button now; the first
+  click starts it): [s] per click, the second click's time over the first, and
+  whether the kept browser's PNGs are byte for byte those of a browser of their own.
 
 Printed with the load average (1, 5, 15 min) before and after: the machine is shared.
 Nothing here is asserted; the numbers go into docs/performance.md.
@@ -42,7 +47,7 @@ sys.path.insert(0, str(ROOT))
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from ui_latency import machine  # noqa: E402  (the machine's description, as there)
 
-CASES = ("sizes", "alone", "together", "startup", "drawing", "scale1")
+CASES = ("sizes", "alone", "together", "startup", "drawing", "scale1", "clicks")
 
 
 def _load() -> list:
@@ -170,6 +175,12 @@ def main(argv=None) -> dict:
                            "png_bytes": sum(q.stat().st_size for q in p1)}
         print(f"together at scale 1: median {statistics.median(times):.2f} s, "
               f"{out['scale1_s']['png_bytes']:,} B of PNG")
+    if "clicks" in args.cases:
+        out["clicks_s"] = _clicks(export, items, reps, folder)
+        for keep, c in out["clicks_s"].items():
+            print(f"clicks, {keep}: " + ", ".join(f"{t:.2f}" for t in c["median"])
+                  + f" s (medians); second / first {c['second_over_first']:.2f}")
+        print(f"kept browser's PNGs the same bytes: {out['clicks_s']['kept']['same_bytes']}")
     if "alone_s" in out and "together_s" in out:
         out["ratio_alone_to_together"] = out["alone_s"]["median"] / out["together_s"]["median"]
         print(f"alone / together: {out['ratio_alone_to_together']:.1f}x (medians)")
@@ -177,6 +188,28 @@ def main(argv=None) -> dict:
     print(f"load average after: {out['load_after']}")
     if args.json:
         Path(args.json).write_text(json.dumps(out, indent=2))
+    return out
+
+
+def _clicks(export, items, reps, folder) -> dict:
+    """Three clicks in a row, a browser started for each or kept between them; each
+    repeat starts anew (the kept browser closed first)."""
+    import hashlib
+    out = {}
+    digest = {}
+    for keep in (False, True):
+        runs = []
+        for _ in range(reps):
+            export.close_kept_browser()
+            runs.append([_timed(lambda: export.export_figures(items, keep=keep))
+                         for _ in range(3)])
+            digest[keep] = [hashlib.sha256(p.read_bytes()).hexdigest() for _, p in items]
+        export.close_kept_browser()
+        med = [statistics.median(r[i] for r in runs) for i in range(3)]
+        out["kept" if keep else "each"] = {"median": med, "runs": runs,
+                                           "second_over_first": med[1] / med[0]}
+    out["kept"]["same_bytes"] = f"{sum(a == b for a, b in zip(digest[False], digest[True]))}" \
+                                f" of {len(items)}"
     return out
 
 

@@ -63,6 +63,28 @@ def test_export_benchmark_sizes_the_figures_and_times_the_session(scenario, tmp_
     assert "load average" in capsys.readouterr().out
 
 
+def test_export_benchmark_times_clicks_with_a_kept_browser(scenario, tmp_path, capsys):
+    """benchmarks/export_figures.py --cases clicks (docs/performance.md, "Export
+    figures: a browser kept between clicks"): three clicks each way, the same PNGs."""
+    import plotly.graph_objects as go
+    from workbench.ui.export import ExportError, close_kept_browser, export_figure
+    try:
+        export_figure(go.Figure(), tmp_path / "probe.png")
+    except ExportError as exc:
+        pytest.skip(f"PNG export cannot run here: {exc}")
+    bench = _load("export_figures")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        out = bench.main(["--scenario", str(scenario), "--repeat", "1", "--cases", "clicks"])
+    clicks = out["clicks_s"]
+    assert all(len(clicks[k]["median"]) == 3 and min(clicks[k]["median"]) > 0
+               for k in ("each", "kept"))
+    n = len(out["figures"])
+    assert clicks["kept"]["same_bytes"] == f"{n} of {n}"
+    assert "second / first" in capsys.readouterr().out
+    close_kept_browser()
+
+
 def test_derived_split_benchmark_checks_old_and_new_alike(tmp_path_factory, capsys):
     """benchmarks/derived_split.py: the split table from scratch and from the graph, the
     network's site loop and its one call (each pair checked equal inside); no time

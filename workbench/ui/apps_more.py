@@ -37,6 +37,53 @@ def sweep_values(a, low=None, high=None, steps=SWEEP_STEPS) -> list:
     return [float(v) for v in np.round(np.linspace(lo, hi, int(steps)), 6)]
 
 
+def _decimals(x: float, most: int = 6) -> int:
+    """Fewest decimals that write `x` exactly (at most `most`)."""
+    return next((d for d in range(most + 1) if abs(round(x, d) - x) < 1e-12), most)
+
+
+def range_grid(bounds) -> tuple:
+    """Step and readout format of the range slider of a number with `bounds`.
+
+    A slider's values are its minimum plus whole steps: with a minimum off the step's
+    grid (z0: 0.0001 m by 0.01 m) the handles stood at 1.0001 and 2.0001 m while the
+    readout, two decimals, said "0.00 - 2.00".  The step is made fine enough for the
+    minimum to lie on it, and the readout shows as many decimals as the step.
+
+    Parameters
+    ----------
+    bounds : (float, float, float)
+        ``(min, max, step)`` of the assumption (:attr:`Assumption.bounds`).
+
+    Returns
+    -------
+    (float, str)
+        The slider's step and its ``readout_format``.
+
+    >>> range_grid((0.0, 10.0, 0.01))
+    (0.01, '.2f')
+    >>> range_grid((0.0001, 5.0, 0.01))
+    (0.0001, '.4f')
+    >>> range_grid((1.0, 20.0, 0.5))
+    (0.5, '.1f')
+    """
+    lo, _, step = bounds
+    digits = max(_decimals(lo), _decimals(step))
+    k = lo / step
+    if abs(k - round(k)) > 1e-9:              # the minimum is off the step's grid
+        step = 10.0 ** -digits
+    return step, f".{digits}f"
+
+
+def shown_value(a, value):
+    """A value of an assumption as its control names it: a choice's label ("half the
+    limit"), "yes"/"no" for a yes-or-no one (the figure and note said True/False),
+    else the value itself."""
+    if a.kind in ("choice", "bool") and value is not None:
+        return {v: label for label, v in a.choices}.get(value, value)
+    return value
+
+
 class SensitivityExplorer(SavedText, widgets.VBox):
     """Pick one assumption and a range; see how each total responds.
 
@@ -126,13 +173,14 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         self.range_w.layout.display = "" if numeric else "none"
         self.steps_w.layout.display = "" if numeric else "none"
         if numeric:
-            lo, hi, step = a.bounds
+            lo, hi, _ = a.bounds
+            step, fmt = range_grid(a.bounds)
             w = self.range_w
             if lo > w.max:
                 w.max, w.min = hi, lo
             else:
                 w.min, w.max = lo, hi
-            w.step = step
+            w.step, w.readout_format = step, fmt
             w.value = a.sweep
 
     def _on_site(self, change):
@@ -166,16 +214,16 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         known = self.session.in_force(a.key, self.settings, site) if base is None else None
         if known is not None and known[0] is not None:   # z0 in force: its totals are the
             base, source = known                         # baseline's, drawn as a star
+        swept = list(values)
         if base is not None and base not in values:
             values = sorted(values + [base]) if a.kind != "choice" else values
         self.progress.start(f"sweeping {a.label}" + (" (recomputes Vd each time)" if a.stage == "dry" else ""))
         self.table = self.session.sweep(a.key, values, self.settings, site, *years, rec, unit,
                                         progress=self.progress.step)
         shown, base_shown = self.table, base       # a choice by its label, as in its control
-        if a.kind == "choice":
-            names = {v: lab for lab, v in a.choices}
-            shown = self.table.assign(value=self.table["value"].map(lambda v: names.get(v, v)))
-            base_shown = names.get(base, base)
+        if a.kind in ("choice", "bool"):       # yes/no, not True/False
+            shown = self.table.assign(value=self.table["value"].map(lambda v: shown_value(a, v)))
+            base_shown = shown_value(a, base)
         model = None
         if base is None:         # left to the model: that run's totals, a line per panel
             b = self.session.sweep(a.key, [None], self.settings, site, *years, rec, unit)
@@ -196,6 +244,11 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         else:
             self.note_w.value = f"Baseline: {html.escape(str(base_shown))} (star)." if not source \
                 else f"Baseline: {base:.3g}, in force ({html.escape(source)}) (star)."
+        if len(values) > len(swept):     # the star is a point of its own on the curves
+            outside = not swept[0] <= base <= swept[-1]
+            self.note_w.value += (f" Drawn: the {len(swept)} values swept, "
+                                  f"{swept[0]:g} to {swept[-1]:g}, and the baseline"
+                                  + (" (outside that range)." if outside else "."))
         self.note_w.value += self._no_effect_note(a, values, site, years, rec)
         refresh(self.fig, fig)
         show = shown.pivot_table(index="value", columns="total", values="rate", sort=False)
@@ -226,7 +279,7 @@ class SensitivityExplorer(SavedText, widgets.VBox):
         by_value = sweep_statuses(self.table)
         if by_value.nunique() > 1:       # the numbers stay, their standing does not
             moved = "; ".join((f"at {v:g}: {st}" if isinstance(v, (int, float))
-                               else f"at {v}: {st}")
+                               and a.kind != "bool" else f"at {shown_value(a, v)}: {st}")
                               for v, st in by_value.items()
                               if st != by_value.mode().iloc[0])
             return " " + html.escape(

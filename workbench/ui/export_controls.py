@@ -2,8 +2,9 @@
 
 :class:`FigureExport` is a format dropdown and a button; the button writes each figure
 the app shows into :func:`workbench.ui.session.output_dir` and says where: PNG and SVG
-all through one kaleido session (:func:`workbench.ui.export.export_figures`), HTML one
-by one (:func:`workbench.ui.export.export_figure`).  When PNG or SVG export cannot run
+all through one kaleido session (:func:`workbench.ui.export.export_figures`), in a
+browser kept for the next click (``keep=True``), HTML one by one
+(:func:`workbench.ui.export.export_figure`).  When PNG or SVG export cannot run
 (kaleido or a Chrome/Chromium missing), the figure is written as a self-contained HTML
 file instead, and the message says so.
 """
@@ -109,13 +110,13 @@ class FigureExport(widgets.HBox):
                  for name, fig in figures.items()]
         if fmt != "html" and len(items) > 1:
             try:
-                return export_figures(items), []
+                return export_figures(items, keep=True), []
             except ExportError:
                 pass             # one by one below, each failure said
         written, fallback = [], []
         for fig, path in items:
             try:
-                written.append(export_figure(fig, path))
+                written.append(export_figure(fig, path, keep=True))
             except ExportError as exc:
                 written.append(export_figure(fig, path.with_suffix(".html")))
                 fallback.append(str(exc))

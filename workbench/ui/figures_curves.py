@@ -30,6 +30,11 @@ def baseline_line() -> dict:
 #: 660 px figure of two panels): longer text wraps at a space (it ran into the other
 #: panel's title, or past the figure's edge).
 AXIS_CHARS, TITLE_CHARS = 30, 70
+#: Most characters on a line of a sweep's axis title: the explorer's figure is 540 px
+#: wide with its legend beside the panels, whose titles' centres stand about 160 px
+#: apart ("every season has air data", 25 characters in 160 px, ran into the other
+#: panel's title at 30).
+SWEEP_AXIS_CHARS = 18
 
 
 def title_room(title: str) -> int:
@@ -133,7 +138,9 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
             showlegend=col == 1, marker=dict(symbol="star", size=14, color=OKABE_ITO["black"]),
             hovertemplate="baseline %{x}: %{y:.3g}<extra></extra>"), row=1, col=col)
         fig.update_yaxes(title_text=axis_text(unit, element=el), row=1, col=col, rangemode="tozero")
-        fig.update_xaxes(title_text=wrap_text(label, AXIS_CHARS), row=1, col=col)
+        # lines enough: the margin grows to hold them (automargin)
+        fig.update_xaxes(title_text=wrap_text(label, SWEEP_AXIS_CHARS), automargin=True,
+                         row=1, col=col)
     if not cat and baseline is not None:
         fig.add_vline(x=baseline, line=baseline_line())
     drawn = False
