@@ -168,4 +168,5 @@ def linear_layer(result, study, which: str = "budget", overrides=None,
                                                    study.inputs.air, histories, _dry_layers,
                                                    exchange)):
             lay.pair_moved = moved
-    return LinearLayer(ds, layers, period_years(periods), wet_component, tracer)
+    return LinearLayer(ds, layers, period_years(periods), wet_component, tracer,
+                       bool(air_vd))

@@ -136,6 +136,8 @@ class LinearLayer:
         Component index -> wet ion or ``"nssSO4"``.
     tracer : str
         Sea-salt tracer of the non-sea-salt sulfate.
+    air_vd_grid : bool
+        Whether the grid of ``vd_follows_air`` was built (:mod:`.airvd`).
     """
 
     budget: object
@@ -143,6 +145,10 @@ class LinearLayer:
     period_year: np.ndarray
     wet_component: dict
     tracer: str = "Na"
+    #: Built with the grid of the air ratio (``linear_layer(..., air_vd=True)``,
+    #: ``[uncertainty] vd_follows_air``): its sites' ``air_vd`` hold what follows the
+    #: air, empty where nothing does.  False: no site's was looked for.
+    air_vd_grid: bool = False
 
 
 def sample_identity(sampler, start, species=None) -> list:

@@ -151,6 +151,8 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
                   {"budget": linear_layer(result, study, "budget", overrides, shift, follow)})
         layers["years"] = (layers["budget"] if result.years is result.budget and not years_only
                            else linear_layer(result, study, "years", overrides, shift, follow))
+    else:
+        layers = _layers_as_asked(layers, follow)
     years = np.concatenate([lay.period_year for lay in layers.values()])
     year0, n_years = int(years.min()), int(years.max() - years.min() + 1)
     q = np.asarray(QUANTILES)
@@ -220,6 +222,42 @@ def monte_carlo(result, study, options: UncertaintyOptions, layers=None, overrid
     return BudgetQuantiles(out.get("budget"), out["years"], span, options, draws, bulk_drawn,
                            gamma_drawn, tuple(sorted(shift_drawn)), followed,
                            tuple(held))
+
+
+def _layers_as_asked(layers: dict, follow: bool) -> dict:
+    """The layers handed to :func:`monte_carlo`, checked against ``vd_follows_air``.
+
+    On, a layer built without the grid of the air ratio is refused: its draws would
+    keep the velocities of the measured air while the run, its report and its console
+    said they follow the drawn air.  Refused rather than reported as held, as the
+    module does with every other case where the option cannot do what it says
+    (:func:`.airvd.refusal`, the grid's samples differing from the point's in
+    :func:`.airvd.grid_pieces`): the option is asked for by name, the report and
+    budget.nc's attributes read it from the options, and a layer without the grid is
+    a mistake of the caller, not a property of the data.  Off, a layer built with the
+    grid is used without it (a copy; the caller's is not changed), so that the draws
+    are those of a layer built without it (:func:`.sitedraws.dry_draws` takes a grid
+    wherever a site holds one)."""
+    if follow:
+        bare = [w for w, lay in layers.items() if not getattr(lay, "air_vd_grid", False)]
+        if bare:
+            raise ValueError(
+                "UncertaintyOptions.vd_follows_air = true: the layers handed to monte_carlo "
+                f"({', '.join(sorted(bare))}) were built without the grid of the air ratio, "
+                "so the draws would keep the velocities of the measured air; build them "
+                "with linear_layer(result, study, which, overrides, pair_shift, "
+                "air_vd=True), or leave layers=None")
+        return layers
+    if not any(getattr(lay, "air_vd_grid", False) for lay in layers.values()):
+        return layers
+    import dataclasses
+    out = {}
+    for which, lay in sorted(layers.items(), key=lambda kv: kv[0] != "years"):
+        same = next((out[w] for w, l0 in layers.items() if l0 is lay and w in out), None)
+        out[which] = same if same is not None else dataclasses.replace(
+            lay, sites=[dataclasses.replace(s, air_vd={}) for s in lay.sites],
+            air_vd_grid=False)
+    return {w: out[w] for w in layers}
 
 
 def _annual_draws(tot, span_t, annual_factor):
