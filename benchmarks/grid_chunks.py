@@ -1,5 +1,5 @@
-"""``workbench grid`` on gridded inputs chunked along time only (the usual layout of
-model output): wall time, CPU time, peak memory and the chunks decompressed.
+"""``workbench grid`` on gridded inputs chunked along time (the usual layout of model
+output) or along y/x: wall time, CPU time, peak memory and the chunks decompressed.
 
     python benchmarks/grid_chunks.py --make DIR --n 60 --months 12   # inputs, once
     python benchmarks/grid_chunks.py --run DIR --layout zarr_day --block 32
@@ -11,7 +11,12 @@ into layouts chunked along time only, each chunk covering the whole y/x plane:
 
 - ``zarr_day`` / ``zarr_month``: zarr stores, chunks of 24 / 720 hours (``{"time": 24}``);
 - ``nc4_day`` / ``nc4_month``: NetCDF4 (HDF5, zlib level 1), ``chunksizes`` (24 / 720, ny, nx);
-- ``nc3``: the NetCDF3 files (no chunks; read in place).
+- ``nc3``: the NetCDF3 files (no chunks; read in place);
+- ``zarr_yx`` / ``nc4_yx``: the other way, chunked along ``y`` and ``x`` only, tiles of
+  all hours x ``TILE`` x ``TILE`` cells (10: the default block of a year of hours, so
+  each block reads its own tiles in place and nothing is copied).
+
+``--layouts`` after ``--make`` writes only the layouts named (the NetCDF3 files always).
 
 The air files get the same chunks along their sampling intervals (7 intervals a chunk
 for "day", 5 for "month": weekly sampling).
@@ -43,17 +48,19 @@ from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
 LAYOUTS = {"zarr_day": ("zarr", 24, 7), "zarr_month": ("zarr", 720, 5),
-           "nc4_day": ("nc4", 24, 7), "nc4_month": ("nc4", 720, 5), "nc3": ("nc3", 0, 0)}
+           "nc4_day": ("nc4", 24, 7), "nc4_month": ("nc4", 720, 5), "nc3": ("nc3", 0, 0),
+           "zarr_yx": ("zarr", "yx", "yx"), "nc4_yx": ("nc4", "yx", "yx")}
+TILE = 10       # cells a side of a y/x tile (the default block of a year of hours)
 ROLES = ("met", "air", "land_use")
 
 
-def make(folder: Path, n: int, months: int):
-    """The NetCDF3 demo grid and its copies chunked along time (see the module text)."""
+def make(folder: Path, n: int, months: int, layouts=None):
+    """The NetCDF3 demo grid and its copies chunked along time or y/x (module text)."""
     import xarray as xr
     from workbench.grid_demo import make_demo_grid
     sc = make_demo_grid(folder / "nc3", n=n, months=months)
     for layout, (kind, ct, ca) in LAYOUTS.items():
-        if kind == "nc3":
+        if kind == "nc3" or (layouts and layout not in layouts):
             continue
         out = folder / layout
         out.mkdir(parents=True, exist_ok=True)
@@ -62,7 +69,9 @@ def make(folder: Path, n: int, months: int):
                 ds = ds.load()
             step = ct if role == "met" else ca
             if kind == "zarr":
-                if "time" in ds.dims:
+                if step == "yx":
+                    ds = ds.chunk({"y": TILE, "x": TILE})
+                elif "time" in ds.dims:
                     ds = ds.chunk({"time": step})
                 with warnings.catch_warnings():
                     warnings.simplefilter("ignore")
@@ -71,8 +80,11 @@ def make(folder: Path, n: int, months: int):
                 enc = {}
                 for v in ds.data_vars:
                     if ds[v].dims[:1] == ("time",) and ds[v].ndim == 3:
+                        nt, ny, nx = ds[v].shape
                         enc[v] = {"zlib": True, "complevel": 1,
-                                  "chunksizes": (min(step, ds.sizes["time"]),) + ds[v].shape[1:]}
+                                  "chunksizes": ((nt, min(TILE, ny), min(TILE, nx))
+                                                 if step == "yx" else
+                                                 (min(step, nt), ny, nx))}
                 ds.to_netcdf(out / f"{role}.nc", engine="netcdf4", format="NETCDF4",
                              encoding=enc)
         ext = ".zarr" if kind == "zarr" else ".nc"
@@ -127,6 +139,16 @@ class _ChunkCount:
     def data_keys(self):
         return [k for k in self.zarr_keys if "/c/" in k or "/c." in k]
 
+    def by_array(self):
+        """Chunk keys read per array of the stores: [reads, distinct chunks]."""
+        out = {}
+        for k in self.data_keys():
+            name = k.split("/c")[0]
+            got = out.setdefault(name, [0, set()])
+            got[0] += 1
+            got[1].add(k)
+        return {n: [r, len(d)] for n, (r, d) in sorted(out.items())}
+
 
 def _hwm_mb() -> float:
     for line in Path("/proc/self/status").read_text().splitlines():
@@ -165,6 +187,7 @@ def child(folder: Path, layout: str, block: int, read_only: bool, out: Path):
                       "peak_mb": round(_hwm_mb(), 1),
                       "zarr_chunks_read": len(counter.data_keys()),
                       "zarr_chunks_distinct": len(set(counter.data_keys())),
+                      "zarr_chunks_by_array": counter.by_array(),
                       "nc4_chunks_read": counter.nc_chunks,
                       "code": str(Path(workbench.__file__).parents[1]),
                       "load": os.getloadavg()[0]}))
@@ -177,6 +200,8 @@ def main(argv=None) -> int:
     p.add_argument("--months", type=int, default=12)
     p.add_argument("--run", type=Path)
     p.add_argument("--layout", choices=list(LAYOUTS), default="zarr_day")
+    p.add_argument("--layouts", nargs="+", choices=list(LAYOUTS),
+                   help="with --make: write only these layouts (and the NetCDF3 files)")
     p.add_argument("--block", type=int, default=0,
                    help="cells per block side (0: the command's default, sized by the hours)")
     p.add_argument("--read-only", action="store_true")
@@ -184,7 +209,7 @@ def main(argv=None) -> int:
     p.add_argument("--child", action="store_true", help=argparse.SUPPRESS)
     a = p.parse_args(argv)
     if a.make:
-        make(a.make, a.n, a.months)
+        make(a.make, a.n, a.months, a.layouts)
     if a.run and a.child:
         child(a.run, a.layout, a.block, a.read_only, a.run / f"out_{a.layout}_{a.tag}")
     elif a.run:

@@ -186,6 +186,45 @@ def test_cli_maps_identical_and_scratch_removed(grids, tmp_path):
     assert "copied chunk by chunk (each read once) to a block-major scratch file" in notes
 
 
+def test_whole_run_reads_each_chunk_once_flag_note_included(grids, tmp_path, monkeypatch):
+    # `workbench grid` reads one cell again for the note on the met's plausibility
+    # flags (grid_output.flag_notes); that cell, inside a block, comes from the scratch
+    # copy: read from the store, all its hours decompressed every time chunk of every
+    # met and air variable a second time (2026-12-05: 730 chunk reads of 365 a
+    # variable on a 60 x 60 grid of a year)
+    grid = _open(grids["zarr"])
+    names = list(grid.met_units) + list(grid.air_units)
+    expected = len(grid.met_units) * _n_chunks(len(grid.times), MET_CHUNK) + \
+        len(grid.air_units) * _n_chunks(len(grid.air_start), AIR_CHUNK)
+    counter = _ZarrKeys(monkeypatch)
+    run_grid(grids["zarr"], tmp_path / "out", quiet=True, block=2, use_dask=False)
+    data = counter.data(names)
+    notes = json.loads((tmp_path / "out" / "provenance.json").read_text())
+    assert "failed a plausibility check" in json.dumps(notes)     # the note was made
+    assert len(data) == len(set(data)) == expected, "a chunk was read twice or not at all"
+
+
+def test_cells_inside_a_block_read_from_the_copy(grids):
+    # a cell inside a block of the copy (the flag note's cell) reads the same values
+    # and reasons as the direct read, and a rectangle across two blocks is not served
+    from workbench.grid_output import flag_reasons
+    grid = _open(grids["zarr"])
+    with staged(grid, 2) as g:
+        copy = g.scratch["met"]
+        assert copy.has("temperature", slice(1, 2), slice(4, 5))
+        assert not copy.has("temperature", slice(1, 3), slice(4, 5))     # two blocks
+        for j, i in ((0, 4), (1, 5), (2, 4), (3, 0)):
+            assert flag_reasons(g, j, i) == flag_reasons(grid, j, i)
+        got = flag_reasons(g, 1, 5)
+        with xr.open_zarr(grid.paths["met"]) as raw:
+            direct = raw["temperature"].isel(y=slice(0, 2), x=slice(4, 6)).values
+        whole = copy.values("temperature", slice(0, 2), slice(4, 6))
+        np.testing.assert_array_equal(whole, direct.reshape(direct.shape[0], -1))
+        np.testing.assert_array_equal(copy.values("temperature", slice(1, 2), slice(5, 6)),
+                                      direct[:, 1:2, 1:2].reshape(direct.shape[0], -1))
+    assert got                                   # the demo grid's flagged cells
+
+
 def test_dask_tasks_read_the_staged_copy(grids, monkeypatch):
     pytest.importorskip("dask")
     counter = _ZarrKeys(monkeypatch)

@@ -69,16 +69,34 @@ class Scratch:
     blocks: dict
     files: dict
 
+    def _block(self, ys: slice, xs: slice):
+        """The block ``(y0, y1, x0, x1)`` that holds the cells `ys` x `xs` (the block
+        itself, or cells inside one block, as the cell read again for the met's flag
+        note), or None."""
+        key = (ys.start, ys.stop, xs.start, xs.stop)
+        if key in self.blocks:
+            return key
+        return next((b for b in self.blocks if b[0] <= ys.start and ys.stop <= b[1]
+                     and b[2] <= xs.start and xs.stop <= b[3]), None)
+
     def has(self, name, ys: slice, xs: slice) -> bool:
-        """True when the copy holds variable `name` for exactly this block."""
-        return name in self.files and (ys.start, ys.stop, xs.start, xs.stop) in self.blocks
+        """True when the copy holds variable `name` for these cells: a block, or cells
+        inside one block."""
+        return name in self.files and self._block(ys, xs) is not None
 
     def values(self, name, ys: slice, xs: slice) -> np.ndarray:
-        """(time, cell) values of a block, cells in (y, x) order as the direct read."""
+        """(time, cell) values of a block (or of cells inside one), cells in (y, x)
+        order as the direct read."""
+        y0, y1, x0, x1 = block = self._block(ys, xs)
+        if block != (ys.start, ys.stop, xs.start, xs.stop):
+            whole = self.values(name, slice(y0, y1), slice(x0, x1))
+            part = whole.reshape(self.n_t, y1 - y0, x1 - x0)[
+                :, ys.start - y0:ys.stop - y0, xs.start - x0:xs.stop - x0]
+            return part.reshape(self.n_t, -1)
         path, dtype = self.files[name]
         dt = np.dtype(dtype)
         n_c = (ys.stop - ys.start) * (xs.stop - xs.start)
-        first = self.blocks[(ys.start, ys.stop, xs.start, xs.stop)]
+        first = self.blocks[block]
         try:
             v = np.fromfile(path, dtype=dt, count=self.n_t * n_c,
                             offset=first * self.n_t * dt.itemsize)
