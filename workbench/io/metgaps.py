@@ -103,15 +103,16 @@ def without_value(met, sites, names=VALUE_NAMES) -> np.ndarray:
     if met is None or "row_present" not in met:
         return out
     ids = [str(s) for s in met["site"].values]
-    present = np.asarray(met["row_present"].values, bool)
-    values = {k: met[k].values for k in names if k in met}
     for j, site in enumerate(sites):
         if str(site) not in ids:
             continue
         i = ids.index(str(site))
-        if not present[i].any():
+        # one site at a time: a record held on disk is read a site's rows at a time
+        rows = np.asarray(met["row_present"].isel(site=i).values, bool)
+        if not rows.any():
             continue
-        none = [k.replace("_", " ") for k, n in value_hours(values, present[i], i).items()
+        values = {k: met[k].isel(site=i).values[None] for k in names if k in met}
+        none = [k.replace("_", " ") for k, n in value_hours(values, rows, 0).items()
                 if n == 0]
         out[j] = " and ".join([", ".join(none[:-1]), none[-1]] if len(none) > 1 else none)
     return out
