@@ -150,15 +150,14 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
                     "missing in the others)", note)
     note = np.where(~season_ok & (coverage > 0), "a season without concentrations", note)
     no_vd = vd_any <= 0
-    lacks = np.broadcast_to(np.asarray(met_without, dtype=object), np.shape(coverage))
-    lacks = np.array([isinstance(x, str) and x != "" for x in lacks.ravel()],
-                     bool).reshape(lacks.shape)
-    no_vd_why = np.where(lacks, np.char.add(np.char.add(
-        "no deposition velocity for any hour of the period: ",
-        np.broadcast_to(np.asarray(met_without, dtype=object), np.shape(coverage)).astype(str)),
-        " has no value in any hour of the site's met record"),
+    # the variables the site's met has in no hour, named where it has no Vd at all
+    lacks = np.broadcast_to(np.asarray(met_without, dtype=object), np.shape(coverage)).astype(str)
+    verb = np.where(np.char.find(lacks, " and ") >= 0, " have", " has")
+    no_vd_why = np.where(lacks != "", np.char.add(np.char.add(np.char.add(
+        "no deposition velocity for any hour of the period: ", lacks), verb),
+        " no value in any hour of the site's met record"),
         "no deposition velocity for any hour of the period (check the met record and the "
-        "site's roughness and heights)")
+        "site's roughness and heights)").astype(object)
     why_none = np.where(no_vd, no_vd_why,
                         "no molar density of air (temperature or pressure) in the sampled "
                         "hours: the mixing ratio cannot become a flux" if ratio else
