@@ -471,3 +471,29 @@ def test_wet_sulfate_rows_say_their_basis(tmp_path):
     so4 = _get(t, "S", "wet", "SO4")
     assert so4["sulfate_basis"] == "total" and "total SO4 used" in so4["note"]
     assert _get(t, "S", "wet", "all")["sulfate_basis"] == "total"
+
+
+def test_a_dry_component_without_vd_names_the_met_variable_with_no_value():
+    """No Vd in any hour: the reason named no cause ("check the met record and the
+    site's roughness and heights"); where the site's met has a variable the Vd reads in
+    no hour, it is named, by variable; elsewhere the old words stay."""
+    from workbench.budget import BudgetOptions
+    from workbench.budgetstatus_dry import dry_status
+    shape = (3, 1, 1)
+    cov, none = np.ones(shape), np.zeros(shape)
+    yes = np.ones(shape, bool)
+    lacks = np.array(["wind speed", "temperature and solar radiation", ""],
+                     object)[:, None, None]
+    st, _, note = dry_status(cov, none, none, none, yes, yes, False, BudgetOptions(),
+                             met_without=lacks)
+    assert (st == "missing").all()
+    note = note.ravel()
+    assert note[0] == ("no deposition velocity for any hour of the period: wind speed has "
+                       "no value in any hour of the site's met record")
+    assert note[1].endswith(": temperature and solar radiation have no value in any hour "
+                            "of the site's met record")
+    assert "check the met record" in note[2]
+    # a site with a Vd: nothing said of its met
+    st, _, note = dry_status(cov, cov, none, cov, yes, yes, False, BudgetOptions(),
+                             met_without=lacks)
+    assert (note == "").all() and (st == "complete").all()

@@ -179,6 +179,27 @@ def test_a_site_without_wind_is_named_and_its_dry_part_missing(tmp_path, capsys)
                  & (budget["species"] == "SO2")]
     assert set(dry["status"]) == {"missing"} and dry["flux_kg_ha"].isna().all()
     assert dry["note"].str.contains("no deposition velocity for any hour").all()
+    # what is missing is named, by variable, as the met note counts it (it read "check
+    # the met record and the site's roughness and heights", a vague lead)
+    assert dry["note"].str.contains("wind speed has no value in any hour of the site's "
+                                    "met record", regex=False).all()
+    assert not dry["note"].str.contains("roughness").any()
     others = budget[(budget["site"] == "ridge") & (budget["pathway"] == "dry")
                     & (budget["species"] == "SO2")]
     assert (others["status"] != "missing").all()
+
+
+def test_check_says_the_dry_deposition_of_a_site_without_wind_cannot_be_computed(
+        tmp_path, capsys):
+    """Every wind speed of fell blank: `workbench check` ended with "the scenario can be
+    run" and nothing on the dry deposition the run would say missing; one line names
+    the site and the variable, within the console's width."""
+    scenario = _demo_without_wind_at_fell(tmp_path / "demo")
+    assert main(["check", str(scenario), "--quiet"]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    said = [x for x in lines if "dry deposition at" in x]
+    assert said == ["warning: dry deposition at fell cannot be computed: its met has no "
+                    "wind speed"], said
+    assert len(said[0]) <= NOTE_WIDTH
+    # the other sites have their wind: not named
+    assert not [x for x in lines if "cannot be computed" in x and "fell" not in x]

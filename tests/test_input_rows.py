@@ -75,3 +75,39 @@ def test_check_groups_the_repeats_of_a_doubled_upload(tmp_path, capsys):
         assert (f"{name}: {n} exact repeats dropped: lines {first}-{first + n - 1} repeat "
                 f"lines {first - n}-{first - 1}") in " ".join(out.split())    # unwrapped
     assert "exact repeat of line" not in out
+
+
+def test_the_dropped_repeats_of_a_doubled_file_have_the_repeat_as_their_reason(
+        tmp_path, capsys):
+    """The demo's precipitation file pasted after itself: the dropped repeats kept the
+    reasons of the lines they repeat, and ``workbench check`` read "55 rows rejected ...
+    PO4 below detection", as if detection had been the cause.  Now a repeat's reason is
+    the repeat alone (the line it repeats holds the others, flagged); every row is
+    counted once."""
+    import shutil
+
+    from workbench.cli import DEMO_SCENARIO
+    from workbench.io.samples import read_precipitation
+    from workbench.io.sites import read_sites
+    folder = tmp_path / "demo"
+    shutil.copytree(DEMO_SCENARIO.parent, folder)
+    n, first = _doubled(folder / "precipitation.csv")
+    assert main(["check", str(folder / "scenario.toml"), "--quiet"]) == 0
+    out = capsys.readouterr().out
+    reasons = out.split("reasons:")[1].split("notes:")[0]
+    entries = re.sub(r"\n    (?=\S)", " ", reasons).splitlines()
+    rejected = [ln for ln in entries if "precipitation.csv" in ln and " rejected" in ln]
+    assert rejected == [f"  precipitation.csv: {n} rows rejected, lines {first}-"
+                        f"{first + n - 1}: exact repeat of an earlier line (dropped)"], rejected
+    # the lines repeated keep their reasons, flagged (the demo has PO4 below detection)
+    assert any("flagged" in ln and "PO4 below detection" in ln for ln in entries)
+    # the ledger: each row once, the repeats rejected with the one reason
+    cat = read_sites(folder / "sites.toml")
+    _, ledger = read_precipitation(folder / "precipitation.csv", cat)
+    s = ledger.summary()
+    assert int(s["read"].sum()) == 2 * n and int(s["rejected"].sum()) == n
+    assert ledger.check_balanced()
+    r = ledger.reasons()
+    rej = r[r["status"] == "rejected"]
+    assert rej["reason"].tolist() == ["exact repeat of an earlier line (dropped)"]
+    assert rej["rows"].tolist() == [n]

@@ -96,8 +96,15 @@ def dry_failure_words(coverage, flux_cov, season_ok, options):
     return out.astype(object)
 
 
+def _met_without(dr) -> np.ndarray:
+    """The ``met_without`` words per site of dry components `dr` ("" where absent)."""
+    if "met_without" in dr.variables:
+        return dr.variables["met_without"].values.astype(object)
+    return np.full(dr.sizes["site"], "", object)
+
+
 def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
-                options, masked="", period_masked=""):
+                options, masked="", period_masked="", met_without=""):
     """Status, completeness failure and reason of a dry component.
 
     Parameters
@@ -116,6 +123,10 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
         Where a measured species has no concentration in the period: the reason of its
         masked samples there ("" for none: no sample in the period), broadcastable to
         `coverage` (:func:`no_concentration_note`).
+    met_without : str or ndarray of str, optional
+        The variables a Vd reads that the site's met has in no hour ("wind speed"; ""
+        for none: :func:`workbench.io.metgaps.without_value`), broadcastable to
+        `coverage`: named as the reason where no hour has a Vd.
 
     Returns
     -------
@@ -139,8 +150,15 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
                     "missing in the others)", note)
     note = np.where(~season_ok & (coverage > 0), "a season without concentrations", note)
     no_vd = vd_any <= 0
-    why_none = np.where(no_vd, "no deposition velocity for any hour of the period (check the "
-                        "met record and the site's roughness and heights)",
+    # the variables the site's met has in no hour, named where it has no Vd at all
+    lacks = np.broadcast_to(np.asarray(met_without, dtype=object), np.shape(coverage)).astype(str)
+    verb = np.where(np.char.find(lacks, " and ") >= 0, " have", " has")
+    no_vd_why = np.where(lacks != "", np.char.add(np.char.add(np.char.add(
+        "no deposition velocity for any hour of the period: ", lacks), verb),
+        " no value in any hour of the site's met record"),
+        "no deposition velocity for any hour of the period (check the met record and the "
+        "site's roughness and heights)").astype(object)
+    why_none = np.where(no_vd, no_vd_why,
                         "no molar density of air (temperature or pressure) in the sampled "
                         "hours: the mixing ratio cannot become a flux" if ratio else
                         "no hour with both a concentration and a deposition velocity")
@@ -274,7 +292,8 @@ def bracket_outputs(dr, pairs, species, vd_cov, filled_share, measured, season_o
             pm = np.where(pm[..., 0] != "", pm[..., 0], pm[..., 1])
             st, _, note = dry_status(cov, vd_cov[..., k], filled_share[..., k], fc, meas, sok,
                                      bool(ratio[ks].any()), options, masked=mk[:, None, None],
-                                     period_masked=pm[:, None, :])
+                                     period_masked=pm[:, None, :],
+                                     met_without=_met_without(dr)[:, None, None])
             note = np.where(note == "", note, f"the weaker of {' and '.join(members)}: " + note)
             compl = np.fmin(np.fmin(cov, fc), vd_cov[..., k])
             miss = st == "missing"

@@ -70,7 +70,8 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         and a deposition velocity: 0 where Vd or the air density is missing for every
         hour, and the deposition is then NaN, never 0), ``measured`` (site, species), ``masked_note`` (site, species: why a
         species measured there has no value left, "" otherwise), ``period_masked_note``
-        (site, period, species: :func:`period_masked_notes`),
+        (site, period, species: :func:`period_masked_notes`), ``met_without`` (site: the
+        variables a Vd reads that the site's met has in no hour, "" for none),
         ``mixing_ratio`` (species: given as a mixing ratio), ``pSO4_total_used`` (site,
         period; text naming the pSO4 samples without pNa whose total pSO4 was used on
         the nss basis, "" where none; :func:`workbench.drynss.total_used_notes`), the pair brackets
@@ -157,6 +158,10 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
              rows.get("masked_runs"), periods, n_s, n_k).astype(str),
              {"long_name": "the reason of the most masked sampling hours of the period, "
               "where the air reader masked values of the species in it ('' elsewhere)"}),
+         "met_without": (("site",), np.asarray(rows.get(
+             "met_without", np.full(len(sites), ""))).astype(str),
+                         {"long_name": "the variables a deposition velocity reads that the "
+                          "site's met record has in no hour ('' for none)"}),
          "concentration": (("site", "period", "species"), conc,
                            {"units": "mol m-3", "long_name": "time-weighted mean concentration "
                             "over the covered hours (amount of species; ambient)"}),

@@ -21,6 +21,7 @@ from .dryflux import _inputs_for, deposition_rows
 from .drynss import _nss_particles
 from .drypairs import combined_notes, split_pairs
 from .dryvelocities import NH3_EXCHANGE, fill_arrays
+from .io.metgaps import VD_INPUTS, without_value
 
 
 def _fingerprint(air: xr.Dataset, species: str) -> str:
@@ -191,7 +192,9 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
         deposition and emission parts of the net NH3 flux per NH3 sampling period (and, when
         ``pair_split`` moves pNH4 into NH3, ``"moved"``: the pNH4 rows with the
         exchange's Vd); ``"notes"``,
-        ``"measured"`` (site x species bool), ``"masked_note"`` (site x species str,
+        ``"measured"`` (site x species bool), ``"met_without"`` (site str: the
+        variables a Vd reads that the site's met has in no hour,
+        :func:`workbench.io.metgaps.without_value`), ``"masked_note"`` (site x species str,
         :func:`masked_notes`), ``"masked_runs"`` (the masked rows, :func:`masked_runs`;
         the moved-into species of a ``pair_split`` holds the other member's too),
         ``"receptors"``, ``"times"``, ``"sites"``;
@@ -266,6 +269,9 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
          if sp in air_v else np.zeros(len(sites), bool) for sp in species_list], -1)
     out["masked_note"] = masked_notes(air.value.attrs, sites, species_list)
     out["masked_runs"] = masked_runs(air.value.attrs, sites, species_list)
+    # the variables a Vd reads that a site's met has in no hour (the met note's "has a
+    # value in 0 (none)"): named where the site has no Vd at all
+    out["met_without"] = without_value(met.value, sites, VD_INPUTS)
     # pair_split: the main components of a pair from the bracket's rows (_apply_split)
     out["split"] = split_pairs(options.pair_split, out, air_v, nodes)
     for pair, (into, other, _) in out["split"].items():

@@ -56,6 +56,7 @@ class Prepared:
             sc.data["period"].get("start"), sc.data["period"].get("end")))
         cover = coverage_notes(self.study.inputs, p["start"].iloc[0], p["end"].iloc[-1])
         lines.extend(cover)
+        lines.extend(no_vd_lines(self.study.inputs))
         if cover and all(c.startswith("warning") for c in cover) and len(cover) == len(
                 input_spans(self.study.inputs)):
             lines.append("everything a run uses was read and checked: the scenario can be "
@@ -292,3 +293,21 @@ def prepare(scenario, progress=None) -> Prepared:
     _bulk_refusal(study, sc, catalogue)
     release_free_memory()     # what the reading freed: not held through the blocks' threads
     return Prepared(sc, study, periods, years, receptors)
+
+
+def no_vd_lines(inputs) -> list[str]:
+    """For ``workbench check``: one line per set of sites whose met record has no value
+    of a variable without which no hour has a deposition velocity
+    (:data:`workbench.io.metgaps.VD_NEEDS`) in any hour: their dry deposition cannot be
+    computed (the run says it missing, naming the variable); [] for none."""
+    from .io.metgaps import VD_NEEDS, without_value
+    if inputs.met is None or inputs.air is None:
+        return []
+    ids = [str(s) for s in inputs.catalogue.ids]
+    lacks = without_value(inputs.met, ids, VD_NEEDS)
+    by = {}
+    for site, words in zip(ids, lacks):
+        if words:
+            by.setdefault(words, []).append(site)
+    return [f"warning: dry deposition at {', '.join(sites)} cannot be computed: its met "
+            f"has no {words}" for words, sites in by.items()]

@@ -335,6 +335,20 @@ def duplicate_rows(tab: RawTable, sites, samplers, start, end, what="sample"):
 REPEAT_REASON = "exact repeat of an earlier line (dropped)"
 
 
+def repeat_reasons(reasons, repeat, repeat_why) -> np.ndarray:
+    """The ledger reasons of a sample file's rows with each dropped exact repeat given
+    its repeat reason alone: its cells are those of the line it repeats, whose reasons
+    (a value below detection, a flag) the ledger holds once on that line; kept on the
+    repeat too, they read in ``workbench check`` as "55 rows rejected: PO4 below
+    detection", as if detection had been the cause.
+
+    >>> repeat_reasons(np.array(["PO4 below detection", "PO4 below detection"], object),
+    ...                np.array([False, True]), np.array(["", REPEAT_REASON], object)).tolist()
+    ['PO4 below detection', 'exact repeat of an earlier line (dropped)']
+    """
+    return np.where(np.asarray(repeat, bool), repeat_why, reasons).astype(object)
+
+
 def repeat_note(tab: RawTable, lines, of_lines, runs: int = 5) -> str:
     """The ledger note saying which line repeats which, in runs of consecutive lines.
 

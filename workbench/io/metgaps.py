@@ -21,6 +21,31 @@ COMPLETE_RECORD = "complete hourly record"
 VALUE_NAMES = tuple(k for k, (_, req, _) in MET_VARIABLES.items() if req)
 
 
+#: The met variables without any value of which no hour of a site has a deposition
+#: velocity (measured: each blanked in turn in the synthetic met of
+#: tests/drydep/dry_synthetic.py leaves no Vd of SO2, HNO3 or pSO4 under the default
+#: scheme; blank relative humidity or precipitation leave a part of the hours, blank
+#: pressure none, as it is filled from the site's elevation).
+VD_NEEDS = ("wind_speed", "temperature", "solar_radiation")
+#: The required met variables a deposition velocity reads (all of :data:`VALUE_NAMES`
+#: but the pressure, filled from the elevation where missing): those a site lacks in
+#: every hour are named where it has no Vd in any hour.
+VD_INPUTS = tuple(k for k in VALUE_NAMES if k != "pressure")
+
+
+def value_hours(values, rows, i: int) -> dict:
+    """The hours with a value of each variable of :data:`VALUE_NAMES` in `values` among
+    the hours with a row of site `i` (the count behind :func:`value_counts`).
+
+    Returns
+    -------
+    dict of str to int
+    """
+    rows = np.asarray(rows, bool)
+    return {name: int(np.count_nonzero(~np.isnan(np.asarray(values[name][i], float)[rows])))
+            for name in VALUE_NAMES if name in values}
+
+
 def value_counts(values, rows, i: int) -> str:
     """The hours with a value of each variable of :data:`VALUE_NAMES` that lacks one in
     some hour with a row of the site, as words ("" when none lacks one).
@@ -43,18 +68,54 @@ def value_counts(values, rows, i: int) -> str:
     >>> value_counts({"temperature": np.ones((1, 4))}, np.ones(4, bool), 0)
     ''
     """
-    rows = np.asarray(rows, bool)
-    n = int(rows.sum())
+    n = int(np.count_nonzero(rows))
     words = []
-    for name in VALUE_NAMES:
-        if name not in values:
-            continue
-        k = int(np.count_nonzero(~np.isnan(np.asarray(values[name][i], float)[rows])))
+    for name, k in value_hours(values, rows, i).items():
         if k < n:
             what = name.replace("_", " ")
             count = f"{k} (none)" if k == 0 else str(k)
             words.append(f"{what} in {count}" if words else f"{what} has a value in {count}")
     return f"of its {n} hours with a row, " + ", ".join(words) if words else ""
+
+
+def without_value(met, sites, names=VALUE_NAMES) -> np.ndarray:
+    """Per site of `sites`, the variables of `names` with a value in none of the site's
+    hours with a row (the zeros of :func:`value_hours`, which the met note of the site
+    says as "has a value in 0 (none)"), in words: "wind speed" or "wind speed and
+    temperature"; "" where each has a value somewhere, where the site has no row and
+    where `met` is None or holds no ``row_present``.
+
+    Parameters
+    ----------
+    met : xarray.Dataset or None
+        ``row_present``, ``site`` and the variables on (site, time).
+    sites : sequence of str
+
+    >>> import xarray as xr
+    >>> m = xr.Dataset({"row_present": (("site", "time"), np.ones((2, 3), bool)),
+    ...                 "wind_speed": (("site", "time"), [[np.nan] * 3, [1.0] * 3]),
+    ...                 "temperature": (("site", "time"), np.ones((2, 3)))},
+    ...                coords={"site": ["a", "b"]})
+    >>> without_value(m, ["b", "a", "c"]).tolist()
+    ['', 'wind speed', '']
+    """
+    out = np.full(len(sites), "", dtype=object)
+    if met is None or "row_present" not in met:
+        return out
+    ids = [str(s) for s in met["site"].values]
+    for j, site in enumerate(sites):
+        if str(site) not in ids:
+            continue
+        i = ids.index(str(site))
+        # one site at a time: a record held on disk is read a site's rows at a time
+        rows = np.asarray(met["row_present"].isel(site=i).values, bool)
+        if not rows.any():
+            continue
+        values = {k: met[k].isel(site=i).values[None] for k in names if k in met}
+        none = [k.replace("_", " ") for k, n in value_hours(values, rows, 0).items()
+                if n == 0]
+        out[j] = " and ".join([", ".join(none[:-1]), none[-1]] if len(none) > 1 else none)
+    return out
 
 
 def describe_gaps(met, values=None) -> list[str]:

@@ -19,7 +19,7 @@ from ..constants import GAS_CONSTANT
 from ..errors import InputError
 from ..units import MM_PER_M, Q_, convert_plain
 from .common import (check_overlaps, check_time_zones, duplicate_rows, join_reasons, reason_where,
-                     unit_error, unused_note)
+                     repeat_reasons, unit_error, unused_note)
 from .gaugerows import check_gauge_sampler
 from .ledger import Ledger
 from .samplerids import check_spellings, typo_notes
@@ -189,6 +189,7 @@ def read_precipitation(path, catalogue, flag_map=None):
     reasons = np.where(empty, join_reasons([reasons, np.full(n, "no values in the row", object)]),
                        reasons)
     empty = empty | repeat
+    reasons = repeat_reasons(reasons, repeat, repeat_why)
     ledger = Ledger.for_rows(tab.path, tab.lines, sites, reasons, empty)
     if repeat_note:
         ledger.notes.append(repeat_note)
@@ -350,6 +351,7 @@ def read_air(path, catalogue, reference_state=None):
     empty = ~has_val
     reasons = np.where(empty, join_reasons([reasons, np.full(n, "no values in the row", object)]), reasons)
     empty = empty | repeat
+    reasons = repeat_reasons(reasons, repeat, repeat_why)
     ledger = Ledger.for_rows(tab.path, tab.lines, sites, reasons, empty)
     known = set(AIR_REQUIRED) | {"sampler_id", "method"} | set(cols.values()) | {
         f"method_{s}" for s in cols} | {f"{s}_method" for s in cols}
