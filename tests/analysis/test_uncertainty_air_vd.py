@@ -24,20 +24,15 @@ import numpy as np
 import pandas as pd
 import pytest
 
+from analysis.air_vd_case import SITE
+from analysis.air_vd_case import scenario as _scenario
 from analysis.tiny_site import OFF
-from ui.demo_subset import study_and_args, write_demo_subset
+from ui.demo_subset import study_and_args
 from workbench.analysis import quantile_tables as QT
 from workbench.analysis import uncertainty as U
 from workbench.errors import ScenarioError
 from workbench.scenario import load_scenario
 
-SITE, YEAR = "ridge", 2021
-
-
-def _scenario(d, dry, extra=""):
-    sc = write_demo_subset(d, (SITE,), YEAR, YEAR)
-    sc.write_text(sc.read_text().replace("[budget]", f"[dry]\n{dry}\n\n[budget]") + extra)
-    return sc
 
 
 def _report_text(folder):

@@ -13,34 +13,24 @@ several percent off in the same draws.
 import dataclasses
 import subprocess
 import sys
-import warnings
 
 import numpy as np
 import pytest
 
-from ui.demo_subset import study_and_args, write_demo_subset
+from analysis.air_vd_case import BOTH, SITE, YEAR
+from analysis.air_vd_case import quiet as _quiet
+from analysis.air_vd_case import scenario as _scenario
+from ui.demo_subset import study_and_args
 from workbench.analysis import airvd
 from workbench.analysis import uncertainty as U
 from workbench.errors import ScenarioError
 from workbench.pipeline import Study
 from workbench.scenario import load_scenario
 
-SITE, YEAR = "ridge", 2021
-BOTH = "so2_codeposition = true\nnh3_acid_ratio_from_air = true"
 #: |grid / engine on the drawn air - 1| allowed: the measured largest, 9.5e-4, times 2
 BOUND = 2e-3
 
 
-def _scenario(d, dry=BOTH, extra=""):
-    sc = write_demo_subset(d, (SITE,), YEAR, YEAR)
-    sc.write_text(sc.read_text().replace("[budget]", f"[dry]\n{dry}\n\n[budget]") + extra)
-    return sc
-
-
-def _quiet(fn, *a, **k):
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", RuntimeWarning)
-        return fn(*a, **k)
 
 
 @pytest.fixture(scope="module")

@@ -9,28 +9,22 @@ the velocities of the measured air; layers built with it ran with the option off
 the draws followed the air anyway.  Now the first is refused with one message and the
 second gives the draws of a layer built without the grid, value for value.
 """
-import warnings
 
 import numpy as np
 import pytest
 
-from ui.demo_subset import study_and_args, write_demo_subset
+from analysis.air_vd_case import quiet as _quiet
+from analysis.air_vd_case import scenario as _scenario
+from ui.demo_subset import study_and_args
 from workbench.analysis import uncertainty as U
 
-SITE, YEAR = "ridge", 2021
-BOTH = "so2_codeposition = true\nnh3_acid_ratio_from_air = true"
 
 
-def _quiet(fn, *a, **k):
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", RuntimeWarning)
-        return fn(*a, **k)
 
 
 @pytest.fixture(scope="module")
 def ridge(tmp_path_factory):
-    sc = write_demo_subset(tmp_path_factory.mktemp("layers"), (SITE,), YEAR, YEAR)
-    sc.write_text(sc.read_text().replace("[budget]", f"[dry]\n{BOTH}\n\n[budget]"))
+    sc = _scenario(tmp_path_factory.mktemp("layers"))
     study, args = study_and_args(sc)
     return study, _quiet(study.run, *args)
 

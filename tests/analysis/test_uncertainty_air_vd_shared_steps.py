@@ -10,13 +10,14 @@ counts of the graph's own records (``Graph.counts``), and the velocities of a gr
 point the same bits as those of a study whose air is the scaled air (its own graph).
 """
 import dataclasses
-import warnings
 
 import numpy as np
 import pytest
 import xarray as xr
 
-from ui.demo_subset import study_and_args, write_demo_subset
+from analysis.air_vd_case import quiet as _quiet
+from analysis.air_vd_case import scenario as _scenario
+from ui.demo_subset import study_and_args
 from workbench import graph as G
 from workbench.analysis import airvd
 from workbench.analysis import uncertainty as U
@@ -24,22 +25,14 @@ from workbench.drydep import core, core_steps
 from workbench.drydep import micromet as _micromet
 from workbench.pipeline import Study
 
-SITE, YEAR = "ridge", 2021
-BOTH = "so2_codeposition = true\nnh3_acid_ratio_from_air = true"
 SHARED = ("micromet", "canopy_state", "particle_mode_vd")
 
 
-def _quiet(fn, *a, **k):
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", RuntimeWarning)
-        return fn(*a, **k)
 
 
 @pytest.fixture(scope="module")
 def scenario(tmp_path_factory):
-    sc = write_demo_subset(tmp_path_factory.mktemp("shared"), (SITE,), YEAR, YEAR)
-    sc.write_text(sc.read_text().replace("[budget]", f"[dry]\n{BOTH}\n\n[budget]"))
-    return sc
+    return _scenario(tmp_path_factory.mktemp("shared"))
 
 
 def test_the_grid_computes_the_air_independent_steps_once(scenario):
