@@ -58,6 +58,18 @@ def as_flag(values):
     return np.where(pd.isna(v), False, v).astype(bool)
 
 
+def _values(w, var, dims, **at):
+    """The values of `w`'s variable `var` on the axes `dims`, at the labels `at` of its
+    other axes: what ``w[var].sel(**at).transpose(*dims).values`` gives, read from the
+    Variable without building a DataArray with every coordinate of `w` (that was most
+    of the budget stage's time on a budget option change: docs/performance.md,
+    "The N split and the bracket from the graph")."""
+    x = w.variables[var]
+    if at:
+        x = x.isel({d: w.get_index(d).get_loc(label) for d, label in at.items()})
+    return x.transpose(*dims).values
+
+
 def wet_mean_status(w, name, w_status, fallback=False):
     """The status rule of one wet mean: of a budget wet component (:func:`wet_component`)
     and of each mean of precipitation_annual.csv
@@ -119,14 +131,14 @@ def wet_mean_status(w, name, w_status, fallback=False):
                           (f"{name}_clipped", f"sea-salt {ion} from {tracer} exceeds the "
                            f"measured {ion}: non-sea-salt {ion} clipped at 0")):
             if var in v:
-                hit = as_flag(w[var].transpose(*dims).values)
+                hit = as_flag(_values(w, var, dims))
                 soft |= hit
                 notes.append((hit, text))
     if name != ion and f"{name}_tracer_estimated" in v:
         # samples without the tracer in a period whose other samples have it: said in
         # words, naming them, the status kept (the tracer's share below judges how much
         # of the rain it covers; docs/methods_wet.md section 8)
-        est = w[f"{name}_tracer_estimated"].transpose(*dims).values
+        est = _values(w, f"{name}_tracer_estimated", dims)
         said = np.array([isinstance(x, str) and x != "" for x in est.ravel()],
                         bool).reshape(shape) & (status != "missing")
         notes.append((said, np.where(said, est, "").astype(str)))
@@ -134,12 +146,12 @@ def wet_mean_status(w, name, w_status, fallback=False):
     if ion == "SO4" and "SO4_seasalt_floor" in v:
         # a SO4 below detection beside the tracer: its sea salt is its floor (said, the
         # status kept: a value below detection is a measurement; methods_wet.md 3.1)
-        floor = w["SO4_seasalt_floor"].transpose(*dims).values
+        floor = _values(w, "SO4_seasalt_floor", dims)
         floor_said = np.array([isinstance(x, str) and x != "" for x in floor.ravel()],
                               bool).reshape(shape) & (status != "missing")
         notes.append((floor_said, np.where(floor_said, floor, "").astype(str)))
     status = np.where(soft & np.isin(status, ("complete", "filled")), "flagged", status)
-    precip = (w["precipitation"].transpose(*dims).values if "precipitation" in v
+    precip = (_values(w, "precipitation", dims) if "precipitation" in v
               else np.full(shape, np.nan))
     need = json.loads(w.attrs.get("wet_options", "{}")).get("min_valid_precip_fraction", 0.7)
     have = list(w["ion"].values) if "ion" in w.coords else []
@@ -149,7 +161,7 @@ def wet_mean_status(w, name, w_status, fallback=False):
     for i in [ion] + ([tracer] if name != ion else []):
         if "ion_valid_precip_fraction" not in v or i not in have:
             continue
-        frac = w["ion_valid_precip_fraction"].sel(ion=i).transpose(*dims).values
+        frac = _values(w, "ion_valid_precip_fraction", dims, ion=i)
         # equal to the minimum (to rounding) passes, as the wet chain's own criteria
         low_i = (np.isfinite(frac) & falls_short(frac, need) & (frac > 0)
                  & (w_status != "missing"))
@@ -157,7 +169,7 @@ def wet_mean_status(w, name, w_status, fallback=False):
             # a PWM filled with the multi-year seasonal PWM (period_fill) does not rest on
             # the period's own samples: their share does not judge it (the period is
             # 'filled', docs/methods_wet.md section 7)
-            low_i &= ~as_flag(w["ion_filled"].sel(ion=i).transpose(*dims).values)
+            low_i &= ~as_flag(_values(w, "ion_filled", dims, ion=i))
         pct = np.round(100 * np.nan_to_num(frac), 1).astype(str)
         words = np.char.add(np.char.add(f"{i} valid for ", pct),
                             f" % of the precipitation only (minimum {100 * need:g} %)")
@@ -169,13 +181,13 @@ def wet_mean_status(w, name, w_status, fallback=False):
     if "ion_all_censored" in v and ion in have:
         # every value behind the mean is a substitute for one below detection: said in
         # words, the status kept (docs/methods_wet.md section 3.1, "In the budget")
-        subs = as_flag(w["ion_all_censored"].sel(ion=ion).transpose(*dims).values)
+        subs = as_flag(_values(w, "ion_all_censored", dims, ion=ion))
         if "ion_filled" in v:
-            subs &= ~as_flag(w["ion_filled"].sel(ion=ion).transpose(*dims).values)
+            subs &= ~as_flag(_values(w, "ion_filled", dims, ion=ion))
         subs &= (w_status != "missing") & (precip > 0)
         how = CENSORED_WORDS.get(w.attrs.get("detection_limit_treatment", ""),
                                  "a substitute")
-        n_val = np.nan_to_num(w["ion_n_valid"].sel(ion=ion).transpose(*dims).values
+        n_val = np.nan_to_num(_values(w, "ion_n_valid", dims, ion=ion)
                               if "ion_n_valid" in v else np.zeros(shape)).astype(int)
         how = np.where(floor_said, f"{how} used; beside {tracer}: the sea salt plus that "
                        "share of (limit - sea salt)", f"{how} used")
@@ -183,7 +195,7 @@ def wet_mean_status(w, name, w_status, fallback=False):
             f"{ion} below detection in all ", n_val.astype(str)), " valid samples ("),
             np.char.add(how.astype(str), ")"))))
     status = np.where(low, "flagged", status)
-    dep = (w[f"dep_{name}"].transpose(*dims).values.astype(float) if f"dep_{name}" in v
+    dep = (_values(w, f"dep_{name}", dims).astype(float) if f"dep_{name}" in v
            else np.full(shape, np.nan))
     gone = ~np.isfinite(dep) & (status != "missing")
     share = np.where(~np.isfinite(dep) & ~(precip > 0), np.nan, share)

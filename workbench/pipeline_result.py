@@ -57,10 +57,21 @@ class Result:
             return _stages.derived_quantities(None, self.budget)
         return self.graph.run("derived", deps={"budget": Node(key, self.budget)}).value
 
+    @functools.cached_property
+    def year_derived(self) -> xr.Dataset:
+        """:attr:`derived` of ``years`` (the yearly budget), from the stage graph: the
+        dry-N bracket and the N split (:meth:`rates`) read the same entry."""
+        key = self.keys.get("years")
+        if self.graph is None or key is None:
+            return _stages.derived_quantities(None, self.years)
+        return self.graph.run("derived", deps={"budget": Node(key, self.years)}).value
+
     def rates(self, receptors=None) -> pd.DataFrame:
         """The derived sums of ``years`` as yearly rates with their completeness
         (:func:`workbench.report_derived.derived_rates`; `receptors`: those only),
-        from the stage graph: a redraw of the same result computes them once.
+        from the stage graph: a redraw of the same result computes them once, and a
+        new result reads the derived quantities of the years (:attr:`year_derived`)
+        and their parts' rows (stage ``part_rows``) computed once for it.
 
         Returns
         -------
@@ -71,5 +82,8 @@ class Result:
         key = self.keys.get("years")
         if self.graph is None or key is None:
             return _stages.year_rates(None, self.years, **params)
-        return self.graph.run("year_rates", deps={"years": Node(key, self.years)},
+        years = Node(key, self.years)
+        dv = self.graph.run("derived", deps={"budget": years})
+        rows = self.graph.run("part_rows", deps={"budget": years})
+        return self.graph.run("year_rates", deps={"years": years, "derived": dv, "rows": rows},
                               params=params).value

@@ -395,17 +395,34 @@ def derived_quantities(o, budget):
     return derived(budget)
 
 
+@stage("part_rows")
+def part_rows(o, budget):
+    """budget.csv's component rows of a budget (tables_budget.component_rows: status,
+    passes and completeness failure of each part), what the status of the derived sums
+    reads: the rows of ``budget_table`` without its sums, notes and wet columns."""
+    from .tables_budget import component_rows
+    return component_rows(budget)
+
+
 @stage("year_rates")
-def year_rates(o, years, receptors=None):
+def year_rates(o, years, derived=None, rows=None, receptors=None):
     """Oxidized and reduced N, the reduced share and the potential acidity of the
     years as yearly rates with their completeness (report_derived.derived_rates on
     budget.csv's rows of the years; `receptors`: those only), for the site explorer's
-    N split and the network overview's columns."""
+    N split and the network overview's columns.  `derived` (the ``derived`` stage of
+    the years) and `rows` (their ``part_rows``) are the graph's, computed once per
+    result and shared with the dry-N bracket; computed here when not given."""
     from .report_derived import derived_rates
-    from .tables import budget_table
+    from .tables_budget import component_rows
+    if rows is None:
+        rows = component_rows(years)
     if receptors is not None:
+        keep = [str(r) for r in receptors]
         years = years.sel(receptor=list(receptors))
-    return derived_rates(years, budget_table(years))
+        rows = rows[rows["receptor"].astype(str).isin(keep)]
+        if derived is not None:
+            derived = derived.sel(receptor=list(receptors))
+    return derived_rates(years, rows, dv=derived)
 
 
 @stage("network_rates")

@@ -143,6 +143,17 @@ def budget_table(ds: xr.Dataset, lean: bool = False) -> pd.DataFrame:
     return _sorted(frame.assign(sulfate_basis=_sulfate_basis(ds, frame, basis)))
 
 
+def component_rows(ds: xr.Dataset) -> pd.DataFrame:
+    """budget.csv's component rows (no sums) of `ds` with the columns of
+    :func:`_rows` (``status``, ``passes``, ``completeness_failure`` among them): the
+    same rows, in the same order and with the same values as the component rows of
+    :func:`budget_table`, without its sums, wet, NH3 and note columns.  What the status
+    of the derived sums reads (:func:`workbench.budget_derived.derived_status`; stage
+    ``part_rows``)."""
+    return _sorted(_rows(ds, "deposition", "status", "completeness", "component",
+                         ds["element"].values, ds["pathway"].values, ds["species"].values))
+
+
 #: The data variables of a budget Dataset that :func:`budget_table` reads with `lean`
 #: (besides the coordinates of their axes: site, receptor, period, period_start,
 #: annual_factor, element, pathway, species, total).

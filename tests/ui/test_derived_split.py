@@ -145,3 +145,51 @@ def test_split_table_from_the_graph_equals_the_one_from_scratch(session):
     app.unit_w.value = "kg/ha/yr"
     assert g.counts["year_rates"] == before
     assert app.split_w.value == n_split_html(app.result.years, "ridge", rec, "kg/ha/yr")
+
+
+def test_a_change_derives_the_years_once_and_builds_no_table(session, monkeypatch):
+    """A cold change of an assumption (monthly tab shown) computes the derived
+    quantities of the new years once, through the stage graph, for both the N split
+    and the dry-N bracket, and their parts' rows without budget.csv's whole table
+    (before: three ``derived`` calls -- the months' for the bracket, unused, then the
+    years' again for the bracket and for the split -- and one ``budget_table``); what
+    is shown is what the functions give from scratch."""
+    import workbench.budget as budget_mod
+    import workbench.budget_derived as bd
+    import workbench.pipeline_result as pr
+    import workbench.stages as stages_mod
+    import workbench.tables as tables_mod
+    import workbench.tables_budget as tb
+    from workbench.ui.apps import TABS, SiteExplorer
+    from workbench.ui.bracket import bracket_line
+    from workbench.ui.derived_split import n_split_html
+    app = SiteExplorer(session, site="ridge", years=(2021, 2021))
+    app.tabs.selected_index = TABS.index("monthly fluxes")
+    app.redraw()
+    calls = {"derived": 0, "budget_table": 0}
+    real_derived, real_table = bd.derived, tb.budget_table
+
+    def derived(ds):
+        calls["derived"] += 1
+        return real_derived(ds)
+
+    def budget_table(ds, *a, **k):
+        calls["budget_table"] += 1
+        return real_table(ds, *a, **k)
+    for mod in (bd, budget_mod, stages_mod):
+        monkeypatch.setattr(mod, "derived", derived)
+    for mod in (tb, tables_mod, pr):
+        monkeypatch.setattr(mod, "budget_table", budget_table)
+    g = app.result.graph
+    before = {k: g.counts[k] for k in ("derived", "part_rows", "year_rates")}
+    ctl = app.controls["budget.min_air_coverage"]
+    ctl.value = round(ctl.value * 0.913, 6)                 # a value not seen before
+    assert calls == {"derived": 1, "budget_table": 0}
+    assert {k: g.counts[k] - before[k] for k in before} == {
+        "derived": 1, "part_rows": 1, "year_rates": 1}
+    monkeypatch.undo()
+    rec, years = app.receptor_w.value, app.result.years
+    assert app.split_w.value == n_split_html(years, "ridge", rec, "kg/ha/yr")
+    import html
+    assert app.bracket_w.value == html.escape(bracket_line(
+        years, real_derived(years), "ridge", rec, "kg/ha/yr", app.settings.budget.pair_split))

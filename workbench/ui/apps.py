@@ -376,7 +376,7 @@ class SiteExplorer(SavedText, widgets.VBox):
 
     def _bracket_html(self):
         from .bracket import bracket_line
-        return html.escape(bracket_line(self.result.years, self.result.derived, self.site,
+        return html.escape(bracket_line(self.result.years, self.result.year_derived, self.site,
                                         self.receptor_w.value, self.unit_w.value,
                                         self.settings.budget.pair_split))
 
