@@ -95,16 +95,15 @@ def table_html(frame: pd.DataFrame, empty="none", wide=(), fill=False) -> str:
         # as tall as its rows: every row whole, nothing behind a scroll (sideways only)
         return (f"<div style='max-width:100%;{size}overflow:auto;"
                 f"font-size:85%'>{body}</div>")
-    # more rows than fit: said above the box (no scrollbar shows in some browsers), the
-    # headings kept in view, and a scroll comes to rest with a row's top at the box's
-    # top, under the headings (CSS Scroll Snap 1: scroll-snap-type, scroll-snap-align,
-    # scroll-padding)
+    # more rows than fit: said above the box (no scrollbar shows in some browsers), and
+    # a scroll comes to rest with a row's top at the box's top, never a slice of a row
+    # there (CSS Scroll Snap 1: scroll-snap-type, scroll-snap-align).  Headings kept in
+    # view (sticky) hid a slice of the row under them at rest: a heading's height is
+    # not known here to pad the snap by.
     note = (f"<p class='wb-scroll-note' style='margin:.2em 0'><i>{n} rows; scroll for "
             "more</i></p>")
-    snap = ("<style>.wb-scroll-box {scroll-snap-type: y proximity; scroll-padding-top: "
-            "2.6em;} .wb-scroll-box tbody tr {scroll-snap-align: start;} "
-            ".wb-scroll-box thead th {position: sticky; top: 0; background: "
-            "var(--jp-layout-color0, white);}</style>")
+    snap = ("<style>.wb-scroll-box {scroll-snap-type: y mandatory;} "
+            ".wb-scroll-box tr {scroll-snap-align: start;}</style>")
     return (f"{note}<div class='wb-scroll-box' style='max-height:{TABLE_HEIGHT};"
             f"max-width:100%;{size}overflow:auto;font-size:85%'>{snap}{body}</div>")
 
