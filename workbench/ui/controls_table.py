@@ -14,8 +14,17 @@ from ..budget import OMISSIONS
 from ..report import CAUTION
 
 
-#: Largest height of a table before it scrolls [CSS].
+#: Largest height of a table before it scrolls [CSS]: only a table of more rows than
+#: :data:`TABLE_ROWS_WHOLE`, which then says so above its box.
 TABLE_HEIGHT = "320px"
+
+#: Most rows a table shows whole, in a box as tall as its rows (no height limit).  The
+#: trend table of the four-site demo network (rows of up to ~180 characters wrapped in a
+#: 16em column) was cut by the 320 px box in the middle of a row's sentence, its last
+#: site only reachable by a scroll that no scrollbar showed (headless chromium).  At the
+#: HTML widget's 28 px line height 13 one-line rows and a heading pass 320 px, so a
+#: table of more rows scrolls in any case.
+TABLE_ROWS_WHOLE = 12
 
 
 #: Headings of a table over their cells (left, like the cells) with room between columns.
@@ -81,8 +90,22 @@ def table_html(frame: pd.DataFrame, empty="none", wide=(), fill=False) -> str:
     # width 0 with a least width of 100 %: no width of the table's own reaches the
     # column (a percentage least width counts for nothing while the column is sized)
     size = "width:0;min-width:100%;" if fill else ""
-    return (f"<div style='max-height:{TABLE_HEIGHT};max-width:100%;{size}overflow:auto;"
-            f"font-size:85%'>{body}</div>")
+    n = len(frame)
+    if n <= TABLE_ROWS_WHOLE:
+        # as tall as its rows: every row whole, nothing behind a scroll (sideways only)
+        return (f"<div style='max-width:100%;{size}overflow:auto;"
+                f"font-size:85%'>{body}</div>")
+    # more rows than fit: said above the box (no scrollbar shows in some browsers), and
+    # a scroll comes to rest with a row's top at the box's top, never a slice of a row
+    # there (CSS Scroll Snap 1: scroll-snap-type, scroll-snap-align).  Headings kept in
+    # view (sticky) hid a slice of the row under them at rest: a heading's height is
+    # not known here to pad the snap by.
+    note = (f"<p class='wb-scroll-note' style='margin:.2em 0'><i>{n} rows; scroll for "
+            "more</i></p>")
+    snap = ("<style>.wb-scroll-box {scroll-snap-type: y mandatory;} "
+            ".wb-scroll-box tr {scroll-snap-align: start;}</style>")
+    return (f"{note}<div class='wb-scroll-box' style='max-height:{TABLE_HEIGHT};"
+            f"max-width:100%;{size}overflow:auto;font-size:85%'>{snap}{body}</div>")
 
 
 def caution_box() -> widgets.HTML:
