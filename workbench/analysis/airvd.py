@@ -9,7 +9,8 @@ measured air.  With ``vd_follows_air`` they follow the drawn ratio:
 1. the velocities are run again on the study's air with its NH3 scaled by each factor
    k of :data:`GRID_FACTORS` (stages ``air_scaled`` and ``velocities`` of the graph,
    keyed by their declared option fields and by the factor: nothing here writes a
-   key), and the dry rows on them with the measured concentrations; the point run is
+   key), and the dry rows on them with the measured concentrations, both for the
+   species whose Vd follows the air only (:func:`grid_options`); the point run is
    the grid's k = 1.  NH3 scaled by k moves the NH3/SO2 ratio by c = k and the acid
    ratio by c = 1/k, and each of the two velocities takes its own ratio only, so one
    grid serves both options;
