@@ -259,12 +259,17 @@ class Study(_StudyVelocities):
         return list(dict.fromkeys(r for s in self.catalogue(overrides) for r in s.surfaces))
 
     def _dry_rows_node(self, dry_options, budget_options, fixed_velocity=None, overrides=None,
-                       receptors=None, vd=None) -> Node:
+                       receptors=None, vd=None, species=None) -> Node:
+        """The dry rows as a node; `species`: of these species only (None: every
+        species with a Vd; the Monte Carlo's grid of scaled air,
+        :func:`workbench.analysis.airvd.grid_pieces`)."""
         if self.inputs.air is None or self.inputs.met is None:
             return _NONE
         fixed_velocity = dict(fixed_velocity or {})
         vel = self._velocity_nodes(dry_options, budget_options, fixed_velocity, overrides,
                                    receptors, vd)
+        if species is not None:
+            vel = {k: v for k, v in vel.items() if k in species}
         if not vel:
             return _NONE
         ids = list(self.catalogue(overrides).ids)

@@ -9,7 +9,8 @@ measured air.  With ``vd_follows_air`` they follow the drawn ratio:
 1. the velocities are run again on the study's air with its NH3 scaled by each factor
    k of :data:`GRID_FACTORS` (stages ``air_scaled`` and ``velocities`` of the graph,
    keyed by their declared option fields and by the factor: nothing here writes a
-   key), and the dry rows on them with the measured concentrations; the point run is
+   key), and the dry rows on them with the measured concentrations, both for the
+   species whose Vd follows the air only (:func:`grid_options`); the point run is
    the grid's k = 1.  NH3 scaled by k moves the NH3/SO2 ratio by c = k and the acid
    ratio by c = 1/k, and each of the two velocities takes its own ratio only, so one
    grid serves both options;
@@ -75,6 +76,16 @@ def targets(dry_options, fixed_velocity=None) -> tuple:
     fixed = fixed_velocity or {}
     return tuple(sp for opt, sp in TARGETS.items()
                  if getattr(dry_options, opt, False) and sp not in fixed)
+
+
+def grid_options(dry_options, want):
+    """`dry_options` with ``gases`` the species of `want` (:func:`targets`) only, in
+    their order there: the velocities of the grid's runs on scaled air.  Each gas's Rb,
+    Rc and Vd is its own (the NH3 exchange, which reads others, is refused under the
+    option: :func:`refusal`), so those of `want` are the bits of the run of every gas."""
+    import dataclasses
+    return dataclasses.replace(
+        dry_options, gases=tuple(g for g in dry_options.gases if g in want))
 
 
 def refusal(dry_options, budget_options, options) -> str | None:
@@ -253,6 +264,9 @@ def grid_pieces(study, result, point, periods, sites, n_r, histories, nss, censo
         return out
     receptors = opts.get("receptors")
     air0 = study._input("air", air)
+    # the grid asks for the gases whose Vd reads the air only (`gases`, a declared
+    # option of the gases' step: its key follows), and its dry rows for them only
+    grid_dry = grid_options(dry_opt, want)
     on_grid = {}
     for k in GRID_FACTORS:
         if k == 1.0:
@@ -260,8 +274,9 @@ def grid_pieces(study, result, point, periods, sites, n_r, histories, nss, censo
             continue
         scaled = study._run("air_scaled", deps={"air": air0},
                             params={"species": "NH3", "factor": k})
-        vd = study._velocities_node(dry_opt, overrides, receptors, air=scaled)
-        rows = study._dry_rows_node(dry_opt, bud_opt, fixed, overrides, receptors, vd=vd).value
+        vd = study._velocities_node(grid_dry, overrides, receptors, air=scaled)
+        rows = study._dry_rows_node(grid_dry, bud_opt, fixed, overrides, receptors, vd=vd,
+                                    species=want).value
         on_grid[k] = _dry_layers(rows, periods, sites, n_r, air, histories, nss=nss,
                                  censored=censored)
     amount = {sp: _censored_values(air, sp, "half")[0] for sp in RATIO_SPECIES if sp in air}
