@@ -193,10 +193,19 @@ def test_check_says_the_dry_deposition_of_a_site_without_wind_cannot_be_computed
         tmp_path, capsys):
     """Every wind speed of fell blank: `workbench check` ended with "the scenario can be
     run" and nothing on the dry deposition the run would say missing; one line names
-    the site and the variable, within the console's width."""
+    the site and the variable, within the console's width.  The closing line, which
+    read "the scenario can be run" alone under that warning as if all were clear, says
+    that fell's dry deposition will be missing and its totals partial."""
     scenario = _demo_without_wind_at_fell(tmp_path / "demo")
     assert main(["check", str(scenario), "--quiet"]) == 0
-    lines = capsys.readouterr().out.splitlines()
+    printed = capsys.readouterr().out
+    lines = printed.splitlines()
+    closing = lines[max(i for i, x in enumerate(lines) if x.startswith("everything")):]
+    assert max(map(len, closing)) <= NOTE_WIDTH
+    words = " ".join(printed.split())      # the words, the lines unwrapped (console_lines)
+    assert words.endswith("everything a run uses was read and checked: the scenario can "
+                          "be run, but the dry deposition of fell will be missing and its "
+                          "totals partial (above)"), words[-200:]
     said = [x for x in lines if "dry deposition at" in x]
     assert said == ["warning: dry deposition at fell cannot be computed: its met has no "
                     "wind speed"], said

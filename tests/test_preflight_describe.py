@@ -12,6 +12,7 @@ from workbench.preflight import Prepared
 def _describe(monkeypatch, starts, resolution, years):
     monkeypatch.setattr(preflight, "span_notes", lambda *a, **k: [])
     monkeypatch.setattr(preflight, "coverage_notes", lambda *a, **k: [])
+    monkeypatch.setattr(preflight, "no_vd_sites", lambda *a, **k: {})  # reads the met
     starts = pd.to_datetime(starts)
     periods = pd.DataFrame({"start": starts[:-1], "end": starts[1:]})
     sc = SimpleNamespace(data={"period": {"resolution": resolution}}, fixed_velocity={})

@@ -56,11 +56,19 @@ class Prepared:
             sc.data["period"].get("start"), sc.data["period"].get("end")))
         cover = coverage_notes(self.study.inputs, p["start"].iloc[0], p["end"].iloc[-1])
         lines.extend(cover)
-        lines.extend(no_vd_lines(self.study.inputs))
+        no_vd = no_vd_sites(self.study.inputs)
+        lines.extend(no_vd_lines(self.study.inputs, no_vd))
         if cover and all(c.startswith("warning") for c in cover) and len(cover) == len(
                 input_spans(self.study.inputs)):
             lines.append("everything a run uses was read and checked: the scenario can be "
                          "run, but every budget would be missing (above)")
+        elif no_vd:
+            # it read "the scenario can be run" alone under the warning, as if all clear
+            sites = [s for group in no_vd.values() for s in group]
+            lines.append("everything a run uses was read and checked: the scenario can be "
+                         f"run, but the dry deposition of {', '.join(sites)} will be "
+                         f"missing and {'its' if len(sites) == 1 else 'their'} totals "
+                         "partial (above)")
         else:
             lines.append("everything a run uses was read and checked: the scenario can be run")
         return "\n".join(lines)
@@ -295,19 +303,29 @@ def prepare(scenario, progress=None) -> Prepared:
     return Prepared(sc, study, periods, years, receptors)
 
 
-def no_vd_lines(inputs) -> list[str]:
-    """For ``workbench check``: one line per set of sites whose met record has no value
-    of a variable without which no hour has a deposition velocity
-    (:data:`workbench.io.metgaps.VD_NEEDS`) in any hour: their dry deposition cannot be
-    computed (the run says it missing, naming the variable); [] for none."""
+def no_vd_sites(inputs) -> dict:
+    """The sites whose met record has no value of a variable without which no hour has
+    a deposition velocity (:data:`workbench.io.metgaps.VD_NEEDS`) in any hour, grouped
+    by what their met lacks: ``{words: [site, ...]}`` in the catalogue's order (words
+    as ``"wind speed"``); {} for none, or without met or air."""
     from .io.metgaps import VD_NEEDS, without_value
     if inputs.met is None or inputs.air is None:
-        return []
+        return {}
     ids = [str(s) for s in inputs.catalogue.ids]
     lacks = without_value(inputs.met, ids, VD_NEEDS)
     by = {}
     for site, words in zip(ids, lacks):
         if words:
             by.setdefault(words, []).append(site)
+    return by
+
+
+def no_vd_lines(inputs, by=None) -> list[str]:
+    """For ``workbench check``: one line per set of sites whose met record has no value
+    of a variable without which no hour has a deposition velocity
+    (:data:`workbench.io.metgaps.VD_NEEDS`) in any hour: their dry deposition cannot be
+    computed (the run says it missing, naming the variable); [] for none.  `by`: the
+    sites as :func:`no_vd_sites` groups them, when already found."""
+    by = no_vd_sites(inputs) if by is None else by
     return [f"warning: dry deposition at {', '.join(sites)} cannot be computed: its met "
             f"has no {words}" for words, sites in by.items()]
