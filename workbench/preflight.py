@@ -57,7 +57,7 @@ class Prepared:
         cover = coverage_notes(self.study.inputs, p["start"].iloc[0], p["end"].iloc[-1])
         lines.extend(cover)
         no_vd = no_vd_sites(self.study.inputs)
-        lines.extend(no_vd_lines(self.study.inputs, no_vd))
+        lines.extend(no_vd_lines(no_vd))
         if cover and all(c.startswith("warning") for c in cover) and len(cover) == len(
                 input_spans(self.study.inputs)):
             lines.append("everything a run uses was read and checked: the scenario can be "
@@ -320,12 +320,11 @@ def no_vd_sites(inputs) -> dict:
     return by
 
 
-def no_vd_lines(inputs, by=None) -> list[str]:
+def no_vd_lines(by: dict) -> list[str]:
     """For ``workbench check``: one line per set of sites whose met record has no value
     of a variable without which no hour has a deposition velocity
     (:data:`workbench.io.metgaps.VD_NEEDS`) in any hour: their dry deposition cannot be
     computed (the run says it missing, naming the variable); [] for none.  `by`: the
-    sites as :func:`no_vd_sites` groups them, when already found."""
-    by = no_vd_sites(inputs) if by is None else by
+    sites as :func:`no_vd_sites` groups them."""
     return [f"warning: dry deposition at {', '.join(sites)} cannot be computed: its met "
             f"has no {words}" for words, sites in by.items()]

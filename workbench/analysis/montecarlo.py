@@ -252,12 +252,13 @@ def _layers_as_asked(layers: dict, follow: bool) -> dict:
         return layers
     import dataclasses
     out = {}
-    for which, lay in sorted(layers.items(), key=lambda kv: kv[0] != "years"):
-        same = next((out[w] for w, l0 in layers.items() if l0 is lay and w in out), None)
+    for which, lay in layers.items():
+        # a layer shared by two names (the budget's as the years') stays shared
+        same = next((out[w] for w in out if layers[w] is lay), None)
         out[which] = same if same is not None else dataclasses.replace(
             lay, sites=[dataclasses.replace(s, air_vd={}) for s in lay.sites],
             air_vd_grid=False)
-    return {w: out[w] for w in layers}
+    return out
 
 
 def _annual_draws(tot, span_t, annual_factor):

@@ -382,8 +382,7 @@ class RawTable:
             elif re.search(r"[T ](?:2[4-9]|[3-9]\d):\d\d", str(s.loc[idx])):
                 hint = (" (an hour of 24 or more? hours run 00-23; only 24:00 may end a "
                         "day)")
-            elif day_month_readings(str(s.loc[idx])):
-                both = day_month_readings(str(s.loc[idx]))
+            elif both := day_month_readings(str(s.loc[idx])):
                 seen = order_witness(self.frame[name]) if " if day first, " in both else None
                 if seen is not None:
                     both += (f"; line {int(self.lines[seen[0]])} has {seen[1]!r}, which "
