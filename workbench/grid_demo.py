@@ -287,7 +287,11 @@ def main(argv=None) -> int:
     for name in names:
         print(f"    {name}")
     print("to map it (grid.nc into a new folder):")
-    print(f"  workbench grid {folder / scenario.name} --out {folder.parent / 'grid-maps'}")
+    command = f"  workbench grid {folder / scenario.name} --out {folder.parent / 'grid-maps'}"
+    if len(command) > 79:         # an 80-column terminal: a path to a line, as a shell reads
+        command = (f"  workbench grid \\\n    {folder / scenario.name} \\\n"
+                   f"    --out {folder.parent / 'grid-maps'}")
+    print(command)
     return 0
 
 
