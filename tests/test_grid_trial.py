@@ -326,7 +326,7 @@ def test_verify_of_a_grid_run_folder_moved_whole(tmp_path, capsys, monkeypatch):
     monkeypatch.chdir(tmp_path / "bert")
     capsys.readouterr()
     assert main(["verify", "unpacked/runs/grid"]) == 0
-    text = capsys.readouterr().out
+    text = " ".join(capsys.readouterr().out.split())   # wrapped for 80 columns
     assert "outputs: the 1 file besides provenance.json (grid.nc) is as written" in text
     for role, name in (("met", "met.nc"), ("air", "air.nc"), ("land_use", "land_use.nc")):
         assert f"input {role} ({name}): as at the run" in text
@@ -337,7 +337,7 @@ def test_verify_of_a_grid_run_folder_moved_whole(tmp_path, capsys, monkeypatch):
     _rewrite(moved / "grid" / "land_use.nc",
              lambda d: d.assign_attrs(comment="edited after the run"))
     assert main(["verify", "unpacked/runs/grid"]) == 1
-    text = capsys.readouterr().out
+    text = " ".join(capsys.readouterr().out.split())
     assert "input land_use (land_use.nc): " + str(moved / "grid" / "land_use.nc") \
         + " differs from the run" in text
     assert "input met (met.nc): as at the run" in text

@@ -61,6 +61,10 @@ DEMO_SCENARIO = demo_folder() / "scenario.toml"
 #: long record gets blocks of fewer sites than :data:`workbench.blocks.DEFAULT_MAX_BLOCK`.
 BLOCK_SITE_YEARS = 20
 
+#: Help of the SCENARIO argument of check, run and sensitivity.
+SCENARIO_HELP = ("the scenario's .toml file (e.g. demo_data/scenario.toml in the "
+                 "repository; docs/scenario.md)")
+
 #: Reporting resolutions of ``workbench run --resolution`` (as ``[period] resolution``).
 RESOLUTIONS = ("year", "hydro_year", "season", "month")
 
@@ -274,7 +278,8 @@ def cmd_sensitivity(args) -> int:
                                 args.quiet)
     from .analysis.sensitivity_design import design_lines
     record = json.loads(written["provenance.json"].read_text(encoding="utf-8"))
-    for line in design_lines(record["sensitivity_design"]):      # runs, seed, what was held
+    # runs, seed, what was held; each wrapped for an 80-column terminal
+    for line in console_lines(design_lines(record["sensitivity_design"])):
         print(line)
     print("\n".join(labelled_path(f"wrote {len(written)} files into", Path(args.out).resolve(), end=":")))
     for name in written:
@@ -320,11 +325,11 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--version", action="version", version=f"%(prog)s {__version__}")
     sub = p.add_subparsers(dest="command", required=True)
     c = sub.add_parser("check", help="validate everything a run would use, without computing")
-    c.add_argument("scenario", type=Path)
+    c.add_argument("scenario", type=Path, help=SCENARIO_HELP)
     c.add_argument("--quiet", action="store_true", help="no progress messages")
     c.set_defaults(func=cmd_check)
     r = sub.add_parser("run", help="compute a scenario's budget and write the run folder")
-    r.add_argument("scenario", type=Path)
+    r.add_argument("scenario", type=Path, help=SCENARIO_HELP)
     r.add_argument("--out", type=Path, required=True, help="output folder (created; written "
                    "whole or not at all)")
     r.add_argument("--overwrite", action="store_true",
@@ -348,14 +353,18 @@ def build_parser() -> argparse.ArgumentParser:
     r.set_defaults(func=cmd_run)
     g = sub.add_parser("sensitivity", help="Sobol indices and a tornado of the budget totals "
                        "([sensitivity] section of the scenario)")
-    g.add_argument("scenario", type=Path)
-    g.add_argument("--out", type=Path, required=True, help="output folder (created if needed)")
-    g.add_argument("--overwrite", action="store_true", help="replace files in a non-empty folder")
+    g.add_argument("scenario", type=Path, help=SCENARIO_HELP)
+    g.add_argument("--out", type=Path, required=True, help="output folder (created; written "
+                   "whole or not at all)")
+    g.add_argument("--overwrite", action="store_true",
+                   help="replace a non-empty output folder whole")
     g.add_argument("--quiet", action="store_true", help="no progress bar")
     g.set_defaults(func=cmd_sensitivity)
     gr = sub.add_parser("grid", help="gridded Vd and dry deposition maps from the "
                         "scenario's [grid] files (CF NetCDF)")
-    gr.add_argument("scenario", type=Path)
+    gr.add_argument("scenario", type=Path, help="the scenario's .toml file with a [grid] "
+                    "section (python demo_data/make_grid.py --out DIR writes one beside an "
+                    "invented demo grid)")
     gr.add_argument("--out", type=Path, required=True, help="output folder (created; written "
                     "whole or not at all)")
     gr.add_argument("--overwrite", action="store_true",

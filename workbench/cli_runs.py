@@ -10,7 +10,7 @@ def cmd_verify(args) -> int:
     """Exit 0 when the run folder matches its scenario and inputs, 1 when not."""
     from .runcheck import verify_run
     v = verify_run(args.run, scenario=args.scenario)
-    print(v.text())
+    print(console_text(v.lines))
     return 0 if v.ok else 1
 
 
@@ -19,7 +19,7 @@ def cmd_compare(args) -> int:
     from .runcompare import compare_runs
     c = compare_runs(args.run_a, args.run_b, rtol=args.rtol,
                      rows=None if args.all else args.rows)
-    print(c.text())
+    print(console_text(c.lines))
     if args.csv is not None:
         from .csvcaution import write_sidecar_caution
         from .runfolder import OutputError, atomic_write, os_error_message
@@ -31,8 +31,23 @@ def cmd_compare(args) -> int:
             raise OutputError(os_error_message(bare, Path(args.csv).resolve(),
                                                option="--csv")) from exc
         what = "total" if "file" not in c.budget else "number"
-        print(f"every differing {what}: {Path(args.csv).resolve()} (caution: {side.name})")
+        where = f"{Path(args.csv).resolve()} (caution: {side.name})"
+        print(console_text([f"every differing {what}: {where}" if len(c.budget) else
+                            f"no {what} differs: {where} holds the header line only"]))
     return 0 if c.same else 1
+
+
+def console_text(lines) -> str:
+    """The lines of a verification or comparison for an 80-column terminal: each line
+    wrapped under a hanging indent (:func:`workbench.cli_status.console_lines`, never
+    inside a path), a table (a line holding line breaks, already set to the width by
+    :mod:`workbench.runcompare`) as it is.  The lines themselves stay whole for a
+    notebook cell and for tests that read them."""
+    from .cli_status import console_lines
+    out = []
+    for line in lines:
+        out.extend([line] if "\n" in line else console_lines([line]))
+    return "\n".join(out)
 
 
 def run_folder_hint(path) -> str | None:
@@ -61,8 +76,9 @@ def add_parsers(sub) -> None:
     c = sub.add_parser("compare", help="what differs between two run folders: options, "
                        "inputs and the budget totals per site, receptor and period (two "
                        "sensitivity folders: their Sobol indices and tornado)")
-    c.add_argument("run_a", type=Path)
-    c.add_argument("run_b", type=Path)
+    c.add_argument("run_a", type=Path, help="the first folder (A): a `workbench run` or "
+                   "`workbench sensitivity` folder")
+    c.add_argument("run_b", type=Path, help="the second folder (B), of the same kind")
     c.add_argument("--rtol", type=float, default=0.0, help="relative difference below "
                    "which two totals count as equal (default 0: as written)")
     c.add_argument("--rows", type=int, default=SHOWN_ROWS, help="differing totals listed, "

@@ -100,6 +100,43 @@ def suggest(word: str, choices) -> str:
     return f" (did you mean {close[0]!r}?)" if close else ""
 
 
+def missing_file_hint(path, given=None) -> str:
+    """Words for a file that is not there: where it was looked for and the nearest
+    name beside it (``" (did you mean 'air.csv'?)"``, :func:`suggest`), or that its
+    folder does not exist either.
+
+    Parameters
+    ----------
+    path : str or Path
+        The absolute path looked for.
+    given : str or Path, optional
+        The path as the user wrote it; when it is relative, the words say where it was
+        looked for (`path`).
+
+    >>> import tempfile, pathlib
+    >>> d = pathlib.Path(tempfile.mkdtemp()); _ = (d / "air.csv").write_text("")
+    >>> missing_file_hint(d / "ari.csv")
+    " (did you mean 'air.csv'?)"
+    >>> missing_file_hint(d / "x" / "air.csv").startswith(" (no folder ")
+    True
+    """
+    from pathlib import Path
+    path = Path(path)
+    looked = f"; looked for {path}" if given is not None and not Path(given).is_absolute() \
+        else ""
+    folder = path.parent
+    if not folder.is_dir():
+        return f" (no folder {folder}{looked})"
+    try:
+        names = sorted(p.name for p in folder.iterdir() if p.is_file())
+    except OSError:
+        names = []
+    near = suggest(path.name, names)
+    if near:
+        return near[:-1] + looked + ")"
+    return f" ({looked[2:]})" if looked else ""
+
+
 def check_choice(option: str, value, choices) -> str:
     """`value` when it is one of `choices`, else a ValueError naming `option`.
 

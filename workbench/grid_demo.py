@@ -271,11 +271,27 @@ def make_demo_grid(folder, n=N_CELLS, months=1) -> Path:
 
 
 def main(argv=None) -> int:
-    """``python demo_data/make_grid.py --out DIR`` (prints the scenario path)."""
+    """``python demo_data/make_grid.py --out DIR``: prints what it wrote, where, and the
+    command that maps it (before, the scenario path alone)."""
     p = argparse.ArgumentParser(description="write the invented demo grid and its scenario")
-    p.add_argument("--out", type=Path, required=True)
+    p.add_argument("--out", type=Path, required=True, help="folder for the grid files and "
+                   "their scenario.toml (created)")
     args = p.parse_args(argv)
-    print(make_demo_grid(args.out))
+    scenario = make_demo_grid(args.out)
+    folder = scenario.parent.resolve()
+    names = [scenario.name] + [n for n in ("met.nc", "air.nc", "land_use.nc")
+                               if (folder / n).is_file()]
+    print(f"wrote the invented demo grid ({N_CELLS} x {N_CELLS} cells) and its scenario "
+          "into")
+    print(f"  {folder}:")
+    for name in names:
+        print(f"    {name}")
+    print("to map it (grid.nc into a new folder):")
+    command = f"  workbench grid {folder / scenario.name} --out {folder.parent / 'grid-maps'}"
+    if len(command) > 79:         # an 80-column terminal: a path to a line, as a shell reads
+        command = (f"  workbench grid \\\n    {folder / scenario.name} \\\n"
+                   f"    --out {folder.parent / 'grid-maps'}")
+    print(command)
     return 0
 
 

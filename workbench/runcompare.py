@@ -28,6 +28,11 @@ KEYS = ["site", "receptor", "period", "element", "pathway"]
 #: What the two values of a budget difference are called in its ``percent_note``.
 RUN_WORDS = ("the first run's value", "the second run's value")
 
+#: Widest line of a table of differences [characters]: pandas sets the columns that
+#: do not fit under the first ones (an 80-column terminal, as the console's notes,
+#: :data:`workbench.cli_status.NOTE_WIDTH`).
+TABLE_WIDTH = 79
+
 #: Rows of the budget differences printed by default (``--all`` prints every one).
 SHOWN_ROWS = 20
 
@@ -187,7 +192,7 @@ def _compare_sensitivity(c, a, b, rtol, rows):
             f"rows differ{tol}{only}; parameters: "
             + ", ".join(dict.fromkeys(diff["factor"].astype(str))) + "; largest change first:")
         shown = diff if rows is None else diff.head(rows)
-        say(shown.to_string(index=False, na_rep="–", formatters={
+        say(shown.to_string(index=False, na_rep="–", line_width=TABLE_WIDTH, formatters={
             "a": "{:.4g}".format, "b": "{:.4g}".format, "change": "{:+.3g}".format}))
         if rows is not None and len(diff) > rows:
             say(f"... and {len(diff) - rows} more (--all lists every one, --csv FILE "
@@ -292,7 +297,7 @@ def compare_runs(a, b, rtol: float = 0.0, rows: int | None = SHOWN_ROWS) -> Comp
     say(f"budget totals (budget.csv, species all; kg/ha/yr): {len(diff)} of "
         f"{counts['shared']} differ{tol}{only}; largest change first:")
     shown = diff if rows is None else diff.head(rows)
-    say(shown.to_string(index=False, na_rep="–", formatters={
+    say(shown.to_string(index=False, na_rep="–", line_width=TABLE_WIDTH, formatters={
         "a_kg_ha_yr": "{:.4g}".format, "b_kg_ha_yr": "{:.4g}".format,
         "change_kg_ha_yr": "{:+.3g}".format, "change_percent": "{:+.2f}".format}))
     if rows is not None and len(diff) > rows:

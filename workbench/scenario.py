@@ -19,7 +19,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from .constants import MAX_FIXED_VD_CM_S
-from .errors import ScenarioError, suggest
+from .errors import ScenarioError, missing_file_hint, suggest
 # the checks of the parts of a file (defined here before)
 from .scenario_check import (_END_OF_DAY, _GEOMETRY_KEYS, _GRID_FILES,  # noqa: F401
                              _check_grid, _check_names, _check_option_section,
@@ -233,7 +233,8 @@ def validate(raw: dict, path=None, text: str = "", require_inputs: bool = True,
             raise ScenarioError("input file does not exist", file=path,
                                 line=_line_of(lines, "inputs", role), column=f"inputs.{role}",
                                 value=sc.data["inputs"][role], expected="a path relative to the "
-                                "scenario file, or absolute")
+                                "scenario file, or absolute"
+                                + missing_file_hint(p, sc.data["inputs"][role]))
     _check_period(data["period"], path, lines)
     if require_inputs or (sc.input_path("sites") is not None and sc.input_path("sites").exists()):
         sc.notes = _check_site_overrides(sc, path, lines)
@@ -257,12 +258,26 @@ def load_scenario(path, require_inputs: bool = True) -> Scenario:
     """
     from .io.readbytes import path_key, recording
     from .io.tomlfile import read_toml
-    path = Path(path).resolve()
+    given, path = Path(path), Path(path).resolve()
     with recording() as seen:            # the SHA-256 of the very bytes parsed
-        raw, text = read_toml(path, ScenarioError, "scenario file not found")
+        raw, text = read_toml(path, ScenarioError, "scenario file not found",
+                              expected=_scenario_expected(given, path))
     sc = validate(raw, path, text, require_inputs=require_inputs)
     sc.sha256 = seen.get(path_key(path))
     return sc
+
+
+def _scenario_expected(given: Path, path: Path) -> str:
+    """What the message of a scenario file that is not found expects: an existing TOML
+    file, with the nearest name in its folder or that the folder is not there
+    (:func:`workbench.errors.missing_file_hint`), and, for the demo's
+    ``demo_data/scenario.toml`` typed in another folder than the repository's, that
+    ``workbench demo`` runs it from any folder."""
+    text = "an existing TOML file" + missing_file_hint(path)  # its path leads the message
+    if not given.is_absolute() and given.parts[-2:] == ("demo_data", "scenario.toml"):
+        text += ("; demo_data/ is a folder of the repository: run from there, or "
+                 "`workbench demo` runs the bundled demo from any folder")
+    return text
 
 
 def load_scenario_inputs(scenario: Scenario, progress=None):

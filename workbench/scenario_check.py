@@ -10,7 +10,7 @@ import copy
 import re
 from pathlib import Path
 
-from .errors import ScenarioError, suggest, type_hint, type_words
+from .errors import ScenarioError, missing_file_hint, suggest, type_hint, type_words
 from .scenario_schema import _expected_like, _type_ok
 
 
@@ -177,11 +177,12 @@ def _check_grid(grid: dict, given, path, lines):
                                 "section 5)")
     for key in ("met", "air", "land_use"):
         p = Path(grid[key])
-        if not (p if p.is_absolute() else base / p).exists():
+        full = p if p.is_absolute() else (base / p).resolve()
+        if not full.exists():
             raise ScenarioError("input file does not exist", file=path,
                                 line=_line_of(lines, "grid", key), column=f"grid.{key}",
                                 value=grid[key], expected="a path relative to the scenario "
-                                "file, or absolute")
+                                "file, or absolute" + missing_file_hint(full, grid[key]))
 
 
 #: A time of 24:00 (the end of the day), as the readers of the sample files take it.

@@ -43,12 +43,28 @@ def test_every_range_on_the_console_has_its_unit():
         assert not re.search(r"\d$", text), (name, text)
 
 
+def _unwrapped(out: str) -> list:
+    """The console's lines with each continuation (two spaces deeper, cli_status.
+    console_lines) joined to its line again."""
+    lines = []
+    for x in out.splitlines():
+        if x.startswith("  ") and lines:
+            lines[-1] += " " + x.strip()
+        else:
+            lines.append(x)
+    return lines
+
+
 def test_the_sensitivity_command_prints_the_units(tiny, tmp_path, capsys):
     from workbench.cli import main
     sc, _, _, _ = tiny
     capsys.readouterr()
     assert main(["sensitivity", str(sc.path), "--out", str(tmp_path / "s"), "--quiet"]) == 0
-    line = next(x for x in capsys.readouterr().out.splitlines()
-                if x.startswith("varied (uniform ranges): "))
+    out = capsys.readouterr().out
+    # an 80-column terminal: each line wrapped under a hanging indent (old code: the
+    # lines of the design ran to 200-400 columns, as no other command's)
+    long = [x for x in out.splitlines() if len(x) > 79 and " " in x.strip()]
+    assert not long, out                      # only a path alone may be longer
+    line = next(x for x in _unwrapped(out) if x.startswith("varied (uniform ranges): "))
     assert "vd_SO2 0.5 to 1.5 (multiplier)" in line
     assert "wetness_rule one of met, always_wet (equally likely)" in line
