@@ -103,8 +103,31 @@ def _met_without(dr) -> np.ndarray:
     return np.full(dr.sizes["site"], "", object)
 
 
+def _met_gaps(dr) -> np.ndarray:
+    """The ``met_gaps`` words per (site, period) of dry components `dr` ("" where
+    absent: :func:`workbench.drycomponents.period_met_gaps`)."""
+    if "met_gaps" in dr.variables:
+        return dr.variables["met_gaps"].values.astype(object)
+    return np.full((dr.sizes["site"], dr.sizes["period"]), "", object)
+
+
+def filled_vd_words(filled_share, options) -> np.ndarray:
+    """Why a dry component is ``filled``: the share of the hours behind its flux whose
+    Vd was not modelled, with the bound it exceeds.
+
+    >>> from workbench.budget_options import BudgetOptions
+    >>> filled_vd_words(np.array([0.115]), BudgetOptions()).tolist()
+    ['deposition velocity not modelled in 11.5 % of the hours behind the flux (filled from the diurnal cycle or the sample mean; more than 10 %)']
+    """
+    pct = np.char.mod("%.1f", 100.0 * np.nan_to_num(np.asarray(filled_share, float)))
+    bound = 100.0 * (1.0 - options.min_vd_coverage)
+    return np.char.add(np.char.add("deposition velocity not modelled in ", pct),
+                       " % of the hours behind the flux (filled from the diurnal cycle or "
+                       f"the sample mean; more than {bound:.3g} %)").astype(object)
+
+
 def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
-                options, masked="", period_masked="", met_without=""):
+                options, masked="", period_masked="", met_without="", met_gaps=""):
     """Status, completeness failure and reason of a dry component.
 
     Parameters
@@ -127,6 +150,12 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
         The variables a Vd reads that the site's met has in no hour ("wind speed"; ""
         for none: :func:`workbench.io.metgaps.without_value`), broadcastable to
         `coverage`: named as the reason where no hour has a Vd.
+    met_gaps : str or ndarray of str, optional
+        The period's hours without a met row or a value a Vd reads, in words
+        (:func:`workbench.drymetgaps.met_gap_words`; "" for none), broadcastable to
+        `coverage`: the reason of a period whose Vd was filled, whose flux is known
+        for part of its sampled hours, or which has no Vd at all, and added to the note
+        of a component flagged for another reason (a year without samples or met).
 
     Returns
     -------
@@ -162,6 +191,22 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
                         "no molar density of air (temperature or pressure) in the sampled "
                         "hours: the mixing ratio cannot become a flux" if ratio else
                         "no hour with both a concentration and a deposition velocity")
+    gaps = np.broadcast_to(np.asarray(met_gaps, dtype=object), np.shape(coverage))
+    gaps = np.where(pd.isna(gaps), "", gaps).astype(object)
+    # the period's own met gaps, named where the whole record has the variable: a
+    # sensor dead for six weeks leaves a filled, partial or missing period behind
+    why_none = np.where(no_vd & (lacks == "") & (gaps != ""),
+                        np.char.add("no deposition velocity for any hour of the period: ",
+                                    gaps.astype(str)).astype(object), why_none)
+    partial = (note != "") & (np.char.find(note.astype(str), "flux known for part") >= 0)
+    note = np.where(partial, join_notes(note, gaps), note)
+    is_filled = status == "filled"
+    note = np.where(is_filled & (note == ""), join_notes(
+        filled_vd_words(np.broadcast_to(filled_share, np.shape(coverage)), options), gaps),
+        note)
+    # flagged for another reason (no samples, a season without them): the met gaps of
+    # the period said too, so that a year without samples or met reads as both
+    note = np.where(fails & ~partial & ~is_filled, join_notes(note, gaps), note)
     gone = (coverage > 0) & ~(flux_cov > 0)
     note = np.where(gone, why_none, note)
     note = np.where(~(coverage > 0), no_concentration_note(
@@ -293,7 +338,8 @@ def bracket_outputs(dr, pairs, species, vd_cov, filled_share, measured, season_o
             st, _, note = dry_status(cov, vd_cov[..., k], filled_share[..., k], fc, meas, sok,
                                      bool(ratio[ks].any()), options, masked=mk[:, None, None],
                                      period_masked=pm[:, None, :],
-                                     met_without=_met_without(dr)[:, None, None])
+                                     met_without=_met_without(dr)[:, None, None],
+                                     met_gaps=_met_gaps(dr)[:, None, :])
             note = np.where(note == "", note, f"the weaker of {' and '.join(members)}: " + note)
             compl = np.fmin(np.fmin(cov, fc), vd_cov[..., k])
             miss = st == "missing"

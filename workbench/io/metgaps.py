@@ -118,6 +118,65 @@ def without_value(met, sites, names=VALUE_NAMES) -> np.ndarray:
     return out
 
 
+#: The name of the first kind of :func:`gap_runs`: hours without a row of the site's met
+#: record (every variable lacks a value there).
+NO_ROW = "row"
+
+
+def gap_runs(met, sites, names=VD_INPUTS):
+    """The runs of hours of each site of `sites` without a met row, and, among the hours
+    with a row, without a value of each variable of `names`, as one table of runs (the
+    input of :func:`workbench.drymetgaps.met_gap_words`, which counts them per period).
+
+    Parameters
+    ----------
+    met : xarray.Dataset or None
+        ``row_present``, ``site``, ``time`` and the variables on (site, time).
+    sites : sequence of str
+    names : tuple of str
+        The variables whose hours without a value are told (default: those a
+        deposition velocity reads, :data:`VD_INPUTS`).
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``site`` (position in `sites`), ``kind`` (0: no row, :data:`NO_ROW`; 1 + i:
+        no value of ``names[i]`` in an hour with a row), ``a``, ``b`` (the run's hours
+        [a, b) on the met's time axis); empty where `met` is None or has no
+        ``row_present``.  A variable absent from `met` is no gap of the record (an
+        optional one is often absent; a required one is refused by the reader).
+
+    >>> import xarray as xr
+    >>> m = xr.Dataset({"row_present": (("site", "time"), [[True, True, True, False]]),
+    ...                 "wind_speed": (("site", "time"), [[1.0, np.nan, np.nan, np.nan]])},
+    ...                coords={"site": ["a"]})
+    >>> gap_runs(m, ["a"], ("wind_speed",)).values.tolist()
+    [[0, 0, 3, 4], [0, 1, 1, 3]]
+    """
+    import pandas as pd
+    cols = {"site": [], "kind": [], "a": [], "b": []}
+    if met is None or "row_present" not in met:
+        return pd.DataFrame(cols, dtype=int)
+    ids = [str(s) for s in met["site"].values]
+    for j, site in enumerate(sites):        # one site at a time (a record held on disk)
+        if str(site) not in ids:
+            continue
+        i = ids.index(str(site))
+        rows = np.asarray(met["row_present"].isel(site=i).values, bool)
+        masks = [~rows] + [rows & np.isnan(np.asarray(met[k].isel(site=i).values, float))
+                           if k in met else np.zeros(rows.shape, bool) for k in names]
+        for kind, m in enumerate(masks):
+            edges = np.diff(np.concatenate([[0], m.astype(np.int8), [0]]))
+            a, b = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
+            cols["site"].append(np.full(len(a), j))
+            cols["kind"].append(np.full(len(a), kind))
+            cols["a"].append(a)
+            cols["b"].append(b)
+    if not cols["a"]:
+        return pd.DataFrame({k: [] for k in cols}, dtype=int)
+    return pd.DataFrame({k: np.concatenate(v).astype(int) for k, v in cols.items()})
+
+
 def describe_gaps(met, values=None) -> list[str]:
     """Text notes on missing hours per site between its first and last row, and on the
     hours without a value of a required variable (:func:`value_counts`): a site whose
