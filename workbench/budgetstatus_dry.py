@@ -96,6 +96,11 @@ def dry_failure_words(coverage, flux_cov, season_ok, options):
     return out.astype(object)
 
 
+#: The smallest share of a period sampled but without a flux that a dry note tells [1]
+#: (a difference of shares to rounding is none; one hour of a year is 1.1e-4).
+PART_FLUX_TOL = 1e-6
+
+
 def _met_without(dr) -> np.ndarray:
     """The ``met_without`` words per site of dry components `dr` ("" where absent)."""
     if "met_without" in dr.variables:
@@ -163,7 +168,8 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
     fails : ndarray of bool
         A present component fails completeness (status ``flagged``).
     note : ndarray of str
-        Why a component is missing or flagged ('' otherwise).
+        Why a component is missing, flagged or filled, or why its flux rests on part
+        of its sampled hours ('' otherwise).
     """
     vd_any = np.nan_to_num(vd_cov) + np.nan_to_num(filled_share)
     # a share equal to its bound (to rounding) is inside it: 10 % filled is not "more
@@ -174,9 +180,15 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
     status = np.where(exceeds(filled_share, 1 - options.min_vd_coverage), "filled", status)
     status = np.where(fails, "flagged", status)
     note = np.full(coverage.shape, "", dtype=object)
-    note = np.where(low_flux & (flux_cov > 0) & (flux_cov < coverage),
-                    "flux known for part of the sampled hours only (Vd or air density "
-                    "missing in the others)", note)
+    # sampled hours without a flux (no Vd the fill could close, no air density): the
+    # period's flux is scaled up from the others, said whether or not it passes
+    part_flux = (flux_cov > 0) & (np.asarray(coverage, float) - flux_cov > PART_FLUX_TOL)
+    note = np.where(part_flux, np.char.add(np.char.add(np.char.add(
+        "flux known for part of the sampled hours only (",
+        np.char.mod("%.1f", 100.0 * np.nan_to_num(np.asarray(flux_cov, float)))),
+        np.char.add(" % of the period with a flux, ",
+                    np.char.mod("%.1f", 100.0 * np.nan_to_num(np.asarray(coverage, float))))),
+        " % sampled; Vd or air density missing in the others)").astype(object), note)
     note = np.where(~season_ok & (coverage > 0), "a season without concentrations", note)
     no_vd = vd_any <= 0
     # the variables the site's met has in no hour, named where it has no Vd at all
@@ -198,15 +210,13 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
     why_none = np.where(no_vd & (lacks == "") & (gaps != ""),
                         np.char.add("no deposition velocity for any hour of the period: ",
                                     gaps.astype(str)).astype(object), why_none)
-    partial = (note != "") & (np.char.find(note.astype(str), "flux known for part") >= 0)
-    note = np.where(partial, join_notes(note, gaps), note)
     is_filled = status == "filled"
-    note = np.where(is_filled & (note == ""), join_notes(
-        filled_vd_words(np.broadcast_to(filled_share, np.shape(coverage)), options), gaps),
-        note)
-    # flagged for another reason (no samples, a season without them): the met gaps of
-    # the period said too, so that a year without samples or met reads as both
-    note = np.where(fails & ~partial & ~is_filled, join_notes(note, gaps), note)
+    note = np.where(is_filled, join_notes(note, filled_vd_words(
+        np.broadcast_to(filled_share, np.shape(coverage)), options)), note)
+    # the period's met gaps where its Vd was filled, its flux is known for part of the
+    # sampled hours, or it is flagged for another reason (a year without samples and
+    # met reads as both)
+    note = np.where(part_flux | is_filled | fails, join_notes(note, gaps), note)
     gone = (coverage > 0) & ~(flux_cov > 0)
     note = np.where(gone, why_none, note)
     note = np.where(~(coverage > 0), no_concentration_note(
