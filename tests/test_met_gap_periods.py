@@ -40,11 +40,29 @@ def _blank_wind(path, site, lo, hi):
     return n
 
 
+def _blank_nh3(path, site, month):
+    lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
+    header = next(i for i, ln in enumerate(lines) if not ln.startswith("#"))
+    col = lines[header].rstrip("\n").split(",").index("NH3 [ug/m3]")
+    n = 0
+    for i in range(header + 1, len(lines)):
+        cells = lines[i].rstrip("\n").split(",")
+        if cells[0] == site and cells[1].startswith(month):
+            cells[col] = ""
+            lines[i] = ",".join(cells) + "\n"
+            n += 1
+    path.write_text("".join(lines), encoding="utf-8")
+    return n
+
+
 @pytest.fixture(scope="module")
 def scenario(tmp_path_factory):
     tmp = tmp_path_factory.mktemp("metgap")
     scen = make_analyst_network(tmp / "in", n_sites=2, years=1, imperfections={})
     assert _blank_wind(scen.parent / "met.csv.gz", "v02", *WIND_GAP) == 1008
+    # the other direction: the met whole, the filter pack of v01 running, its NH3 blank
+    # in the five weekly samples starting in June (2016-06-02 to 2016-07-07 local)
+    assert _blank_nh3(scen.parent / "air.csv", "v01", "2016-06") == 5
     return scen
 
 
@@ -95,6 +113,50 @@ def test_each_month_names_its_own_hours_without_wind(scenario, tmp_path_factory)
     # February's one hour leaves it complete: no note; May has no gap
     assert notes["2016-02"] == "" and notes["2016-05"] == ""
     assert not dry.xs("v01")["note"].fillna("").str.contains("met gaps").any()
+
+
+def test_check_names_the_species_blank_while_its_sampler_ran(scenario, capsys):
+    """The filter pack ran (its rows hold SO2, HNO3...), its NH3 was blank for five
+    weeks: no gap of the sampler, so ``workbench check`` said nothing before; the NH3
+    rows of the budget said only "5 weeks without a usable air sample"."""
+    from workbench.cli import main
+    assert main(["check", str(scenario)]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert ("air v01-F1: NH3 without a value in 5 weeks of its samples (1 gap; longest 5 "
+            "weeks from 2016-06-02T14:00 to 2016-07-07T14:00 UTC)") in out
+    assert "v01-F1: SO2" not in out and "v02-F1: NH3" not in out
+
+
+def test_species_gap_rule_on_hand_made_samples():
+    """A species blank inside the sampler's record is said; blank where the sampler has
+    no row (a gap of the sampler), or where another sampler of the site has it, or in a
+    sampler that never measures it, is not."""
+    import xarray as xr
+    from workbench.io.samplegaps import species_gap_notes
+    w = np.timedelta64(7, "D")
+    t0 = np.datetime64("2020-01-02T14:00", "ns")
+    st = t0 + w * np.array([0, 1, 2, 3, 4, 5, 6, 8, 9, 0, 1, 2, 3])    # S1: no row week 7
+    site = np.array(["a"] * 9 + ["b"] * 4)
+    smp = np.array(["S1"] * 9 + ["S2"] * 4)
+    nh3 = np.array([1, 1, np.nan, np.nan, 1, 1, 1, 1, 1, 1, np.nan, 1, 1], float)
+    so2 = np.where(smp == "S2", np.nan, 1.0)
+    ds = xr.Dataset({"site": ("period", site), "start": ("period", st),
+                     "end": ("period", st + w), "sampler_id": ("period", smp),
+                     "NH3": ("period", nh3, {"quantity": "amount_density"}),
+                     "SO2": ("period", so2, {"quantity": "amount_density"})})
+    notes = species_gap_notes(ds)
+    assert notes == ["air S1: NH3 without a value in 2 weeks of its samples (1 gap; longest "
+                     "2 weeks from 2020-01-16T14:00 to 2020-01-30T14:00 UTC)",
+                     "air S2: NH3 without a value in 1 week of its samples (1 gap; longest "
+                     "1 week from 2020-01-09T14:00 to 2020-01-16T14:00 UTC)"]
+    # another sampler of site a with NH3 in those weeks: no gap of the species there
+    extra = xr.Dataset({"site": ("period", ["a", "a"]),
+                        "start": ("period", st[2:4]), "end": ("period", st[2:4] + w),
+                        "sampler_id": ("period", ["P1", "P1"]),
+                        "NH3": ("period", [1.0, 1.0], {"quantity": "amount_density"}),
+                        "SO2": ("period", [np.nan, np.nan], {"quantity": "amount_density"})})
+    both = xr.concat([ds, extra], dim="period")
+    assert [n for n in species_gap_notes(both) if n.startswith("air S1")] == []
 
 
 def test_dry_status_names_the_period_gaps():
