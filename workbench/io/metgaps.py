@@ -46,7 +46,37 @@ def value_hours(values, rows, i: int) -> dict:
             for name in VALUE_NAMES if name in values}
 
 
-def value_counts(values, rows, i: int) -> str:
+#: The shortest stretch of hours without a value of a variable (among hours with a row)
+#: that the met note of a site dates [h]: a week, as the budget's notes of sampling
+#: gaps (:data:`workbench.budgetstatus_notes.SAMPLING_GAP_NOTE_H`; our choice).
+VALUE_GAP_NOTE_H = 168
+
+
+def longest_without(mask, times) -> str:
+    """The longest stretch of `mask` (hours with a row and no value of a variable) as
+    words, " (none for 1008 h from 2019-02-28T23:00 UTC)", where it lasts at least
+    :data:`VALUE_GAP_NOTE_H` hours; "" otherwise.  The hours are counted on the time
+    axis: a stretch broken by hours without a row is two stretches.
+
+    >>> t = np.arange(1, 301).astype("datetime64[h]")
+    >>> longest_without(np.arange(300) >= 100, t)
+    ' (none for 200 h from 1970-01-05T05:00 UTC)'
+    >>> longest_without(np.arange(300) >= 290, t)
+    ''
+    """
+    m = np.asarray(mask, bool)
+    edges = np.diff(np.concatenate([[0], m.astype(np.int8), [0]]))
+    a, b = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
+    if not len(a):
+        return ""
+    k = int(np.argmax(b - a))
+    if b[k] - a[k] < VALUE_GAP_NOTE_H:
+        return ""
+    return (f" (none for {int(b[k] - a[k])} h from "
+            f"{str(np.datetime64(times[a[k]], 'm'))[:16]} UTC)")
+
+
+def value_counts(values, rows, i: int, times=None) -> str:
     """The hours with a value of each variable of :data:`VALUE_NAMES` that lacks one in
     some hour with a row of the site, as words ("" when none lacks one).
 
@@ -67,6 +97,11 @@ def value_counts(values, rows, i: int) -> str:
     'of its 3 hours with a row, wind speed has a value '
     >>> value_counts({"temperature": np.ones((1, 4))}, np.ones(4, bool), 0)
     ''
+
+    With `times` (the hour ends of the time axis), a variable with a value in some
+    hours but none for a week or more in a row says its longest such stretch
+    (:func:`longest_without`): "wind speed has a value in 69120 (none for 1008 h from
+    2019-02-28T23:00 UTC)".
     """
     n = int(np.count_nonzero(rows))
     words = []
@@ -74,6 +109,9 @@ def value_counts(values, rows, i: int) -> str:
         if k < n:
             what = name.replace("_", " ")
             count = f"{k} (none)" if k == 0 else str(k)
+            if times is not None and k > 0:
+                count += longest_without(np.asarray(rows, bool) & np.isnan(
+                    np.asarray(values[name][i], float)), times)
             words.append(f"{what} in {count}" if words else f"{what} has a value in {count}")
     return f"of its {n} hours with a row, " + ", ".join(words) if words else ""
 
@@ -204,7 +242,7 @@ def describe_gaps(met, values=None) -> list[str]:
         a, b = np.flatnonzero(p)[[0, -1]]
         inner = ~p[a:b + 1]
         n_miss = int(inner.sum())
-        counts = value_counts(values, p, i)
+        counts = value_counts(values, p, i, times)
         span = f"{str(times[a])[:16]} to {str(times[b])[:16]} UTC"
         if n_miss == 0 and not counts:
             notes.append(f"met {site}: {COMPLETE_RECORD} {span}")
