@@ -125,6 +125,9 @@ def test_check_names_the_species_blank_while_its_sampler_ran(scenario, capsys):
     assert ("air v01-F1: NH3 without a value in 5 weeks of its samples (1 gap; longest 5 "
             "weeks from 2016-06-02T14:00 to 2016-07-07T14:00 UTC)") in out
     assert "v01-F1: SO2" not in out and "v02-F1: NH3" not in out
+    # and the wind gap of v02 is dated (it was a count of hours with a value alone)
+    assert ("wind speed has a value in 7776 (none for 1008 h from 2016-03-01T00:00 UTC)"
+            in out), out
 
 
 def test_species_gap_rule_on_hand_made_samples():
