@@ -100,3 +100,24 @@ def test_met_note_dates_a_week_without_a_value():
                      "for 500 h from 2019-02-11T17:00 UTC)")
     # without the time axis: the count alone, as before
     assert value_counts({"wind_speed": wind}, np.ones(2000, bool), 0).endswith("in 1490")
+
+
+def test_coverage_table_names_the_lowest_species_and_the_met_gaps():
+    """report.html's "Sampling coverage" listed "92%" for the air of a site-year whose
+    NH3 was blank for a month (the lowest species unnamed) and "89%" for the Vd of a
+    year with six weeks without wind speed (no word of why)."""
+    from workbench.report_coverage import coverage_gaps, coverage_section
+    gaps = "met gaps in the period (of its 8760 h): wind speed without a value in 1008 h"
+    t = pd.DataFrame({
+        "site": ["ridge"] * 4 + ["fell"] * 2,
+        "period": ["2019", "2019", "2020", "2020", "2019", "2019"],
+        "pathway": ["dry"] * 6,
+        "species": ["SO2", "NH3", "SO2", "NH3", "SO2", "NH3"],
+        "air_coverage": [1.0, 1.0, 1.0, 0.923, 1.0, 1.0],
+        "vd_coverage": [0.89, 0.89, 1.0, 1.0, 1.0, 1.0],
+        "note": [gaps, gaps, "", "4 weeks without a usable air sample", "", ""]})
+    assert coverage_gaps(t)["site"].tolist() == ["ridge", "ridge"]
+    html = " ".join(coverage_section(t, lambda f: f.to_html(index=False)))
+    assert "<td>89% (wind speed without a value in 1008 h)</td>" in html
+    assert "<td>92% (NH3)</td>" in html
+    assert "<td>100%</td>" in html              # a full coverage is not explained

@@ -183,6 +183,15 @@ def test_dry_status_names_the_period_gaps():
     assert note[1] == "no deposition velocity for any hour of the period: " + gaps
     assert note[2].endswith(gaps)
     assert note[3] == ""
+    # a complete component with a week or more of met gaps in its period says them (as
+    # the notes of sampling gaps), one with less does not
+    week = "met gaps in the period (of its 8760 h): no met row in 168 h"
+    st, _, note = dry_status(np.ones(2), np.full(2, 0.98), np.full(2, 0.02), np.ones(2),
+                             np.ones(2, bool), np.ones(2, bool), False, BudgetOptions(),
+                             met_gaps=np.array([week, week], object),
+                             met_gap_h=np.array([168, 167]))
+    assert st.tolist() == ["complete", "complete"]
+    assert note.tolist() == [week, ""]
 
 
 def test_gap_hours_per_period_by_hand():

@@ -9,7 +9,7 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .budgetstatus_notes import join_notes
+from .budgetstatus_notes import SAMPLING_GAP_NOTE_H, join_notes
 from .wet.qa import exceeds, falls_short
 
 
@@ -116,6 +116,14 @@ def _met_gaps(dr) -> np.ndarray:
     return np.full((dr.sizes["site"], dr.sizes["period"]), "", object)
 
 
+def _met_gap_hours(dr) -> np.ndarray:
+    """The ``met_gap_hours`` per (site, period) of dry components `dr` [h] (0 where
+    absent)."""
+    if "met_gap_hours" in dr.variables:
+        return dr.variables["met_gap_hours"].values
+    return np.zeros((dr.sizes["site"], dr.sizes["period"]))
+
+
 def filled_vd_words(filled_share, options) -> np.ndarray:
     """Why a dry component is ``filled``: the share of the hours behind its flux whose
     Vd was not modelled, with the bound it exceeds.
@@ -132,7 +140,8 @@ def filled_vd_words(filled_share, options) -> np.ndarray:
 
 
 def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
-                options, masked="", period_masked="", met_without="", met_gaps=""):
+                options, masked="", period_masked="", met_without="", met_gaps="",
+                met_gap_h=0.0):
     """Status, completeness failure and reason of a dry component.
 
     Parameters
@@ -161,6 +170,11 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
         `coverage`: the reason of a period whose Vd was filled, whose flux is known
         for part of its sampled hours, or which has no Vd at all, and added to the note
         of a component flagged for another reason (a year without samples or met).
+    met_gap_h : float or ndarray, optional
+        The most hours of one kind of those gaps [h], broadcastable to `coverage`: a
+        ``complete`` component says its period's met gaps where they last at least
+        :data:`workbench.budgetstatus_notes.SAMPLING_GAP_NOTE_H` (a week; the rule of
+        the notes of sampling gaps), as its Vd then rests on the diurnal fill.
 
     Returns
     -------
@@ -216,7 +230,9 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
     # the period's met gaps where its Vd was filled, its flux is known for part of the
     # sampled hours, or it is flagged for another reason (a year without samples and
     # met reads as both)
-    note = np.where(part_flux | is_filled | fails, join_notes(note, gaps), note)
+    long_gap = np.broadcast_to(np.asarray(met_gap_h, float), np.shape(coverage)) \
+        >= SAMPLING_GAP_NOTE_H - 1e-6
+    note = np.where(part_flux | is_filled | fails | long_gap, join_notes(note, gaps), note)
     gone = (coverage > 0) & ~(flux_cov > 0)
     note = np.where(gone, why_none, note)
     note = np.where(~(coverage > 0), no_concentration_note(
@@ -349,7 +365,8 @@ def bracket_outputs(dr, pairs, species, vd_cov, filled_share, measured, season_o
                                      bool(ratio[ks].any()), options, masked=mk[:, None, None],
                                      period_masked=pm[:, None, :],
                                      met_without=_met_without(dr)[:, None, None],
-                                     met_gaps=_met_gaps(dr)[:, None, :])
+                                     met_gaps=_met_gaps(dr)[:, None, :],
+                                     met_gap_h=_met_gap_hours(dr)[:, None, :])
             note = np.where(note == "", note, f"the weaker of {' and '.join(members)}: " + note)
             compl = np.fmin(np.fmin(cov, fc), vd_cov[..., k])
             miss = st == "missing"
