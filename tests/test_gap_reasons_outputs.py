@@ -122,3 +122,13 @@ def test_coverage_table_names_the_lowest_species_and_the_met_gaps():
     assert "<td>89% (wind speed without a value in 1008 h)</td>" in html
     assert "<td>92% (NH3)</td>" in html
     assert "<td>100%</td>" in html              # a full coverage is not explained
+
+
+def test_coverage_table_names_no_species_when_every_species_is_as_low():
+    """A filter pack out of service lowers every species alike: no species is named
+    (the lowest by order, "HNO3", was named at first)."""
+    from workbench.report_coverage import coverage_gaps, coverage_why
+    t = pd.DataFrame({"site": ["a"] * 3, "period": ["2017"] * 3, "pathway": ["dry"] * 3,
+                      "species": ["SO2", "HNO3", "NH3"], "air_coverage": [0.81] * 3,
+                      "vd_coverage": [1.0] * 3, "note": [""] * 3})
+    assert coverage_why(t, coverage_gaps(t))["air_species"].tolist() == [""]

@@ -45,8 +45,9 @@ def coverage_gaps(table: pd.DataFrame, below: float = SHOW_BELOW) -> pd.DataFram
 
 def coverage_why(table: pd.DataFrame, gaps: pd.DataFrame) -> pd.DataFrame:
     """What lies behind each listed site-period's lowest coverage: the species with the
-    lowest air coverage (``air_species``: "NH3"; a month of one species blank while
-    its sampler ran was a bare "92%") and the period's met gaps from its dry rows' note
+    lowest air coverage, where not every species shares it (``air_species``: "NH3"; a
+    month of one species blank while its sampler ran was a bare "92%"; "" for a
+    sampler out of service) and the period's met gaps from its dry rows' note
     (``met_gaps``: "wind speed without a value in 1008 h"; "" where the note has none).
 
     Parameters
@@ -69,10 +70,18 @@ def coverage_why(table: pd.DataFrame, gaps: pd.DataFrame) -> pd.DataFrame:
     t = table[(table["period"].astype(str) != "span") & (table["species"] != "all")]
     at = pd.MultiIndex.from_frame(gaps[keys].astype(str))
     if "air_coverage" in t:
-        a = t[t["air_coverage"].notna()]
-        low = a.loc[a.groupby(keys, sort=False)["air_coverage"].idxmin()]
-        low = low.set_index(pd.MultiIndex.from_frame(low[keys].astype(str)))["species"]
-        out["air_species"] = low.reindex(at).fillna("").to_numpy(dtype=object)
+        a = t[t["air_coverage"].notna()].drop_duplicates(keys + ["species"])
+        lowest = a.groupby(keys, sort=False)["air_coverage"].transform("min")
+        at_min = (a["air_coverage"] - lowest).abs() < 1e-9
+        # the species at the lowest coverage, where not every species is (a sampler
+        # out of service lowers them all: no species to name)
+        named = a[at_min].groupby(keys, sort=False)["species"].agg(" ".join)
+        n_low = at_min.groupby([a[k] for k in keys], sort=False).sum()
+        n_all = a.groupby(keys, sort=False)["species"].size()
+        named = named[(n_low < n_all).reindex(named.index).fillna(False).to_numpy(bool)]
+        named.index = pd.MultiIndex.from_arrays(
+            [named.index.get_level_values(k).astype(str) for k in keys], names=keys)
+        out["air_species"] = named.reindex(at).fillna("").to_numpy(dtype=object)
     if "note" in t:
         note = t["note"].fillna("").astype(str)
         part = note.str.extract("(" + MET_GAPS_NOTE + r" \(of its \d+ h\): [^;]*)",
