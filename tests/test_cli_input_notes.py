@@ -165,8 +165,9 @@ def test_a_site_without_wind_is_named_and_its_dry_part_missing(tmp_path, capsys)
     notes, _ = _printed_input_notes(printed)
     fell = [n for n in notes if n.startswith("met fell: ")]
     assert len(fell) == 1 and "complete hourly record" not in fell[0]
+    # the demo's month without relative humidity (August 2021) is dated
     assert fell[0].endswith("wind speed has a value in 0 (none), relative humidity in "
-                            "69384"), fell[0]
+                            "69384 (none for 744 h from 2021-08-01T00:00 UTC)"), fell[0]
     summ = pd.read_csv(out / "summary.csv")
     at = summ[summ["site"] == "fell"]
     assert len(at) == 16

@@ -105,8 +105,9 @@ def test_gaps_lower_the_coverage_and_reach_the_report(run):
             if r and r[0].startswith("v")]
     assert [r[:2] for r in rows] == [["v02", "2017"], ["v03", "2017"], ["v04", "2017"]], rows
     assert rows[0][2] == "71%"        # 39 of 52 weeks' hours: 0.712 (wet_coverage_fraction)
-    assert rows[1][3] == "81%"        # 1 - 1680/8760
-    assert rows[2][4] == "90%"        # 1 - 840/8760
+    assert rows[1][3] == "81%"        # 1 - 1680/8760 (every species: none named)
+    # 1 - 840/8760, with the met gap behind it (five weeks: said on the complete rows)
+    assert rows[2][4] == "90% (no met row in 840 h)"
 
 
 def test_budget_rows_note_the_gap_of_their_own_component(run):

@@ -40,9 +40,13 @@ def test_span_row_says_which_years_carry_which_note():
     passes = {y: y != 2022 for y in wet}            # 2022 excluded: its note is not the span's
     span = span_table(_year_rows(wet, no2, passes)).set_index("species")
     assert span.loc["NO3", "status"] == "flagged"
-    assert span.loc["NO3", "note"] == (f"2017 2019: {GAP_1}; 2020: {KEPT}; 2020: {GAP_15}")
-    assert span.loc["NO2", "note"] == f"every year used: {NOT_MEASURED}"
-    assert span.loc["all", "note"] == ""           # these rows give their sums no note of a year
+    # the year left out says so first, then the notes of the years used (2022's own
+    # note is not the span's)
+    left = "2022 left out: fails completeness; "
+    assert span.loc["NO3", "note"] == (f"{left}2017 2019: {GAP_1}; 2020: {KEPT}; "
+                                       f"2020: {GAP_15}")
+    assert span.loc["NO2", "note"] == f"{left}every year used: {NOT_MEASURED}"
+    assert span.loc["all", "note"] == left[:-2]    # no note of a year used on the sums
     assert span.loc["NO3", "years_used"] == "2017 2018 2019 2020 2021"
 
 

@@ -20,7 +20,7 @@ from .budgetstatus import (NO_PNA_AT_SITE, as_flag, bracket_outputs, bulk_caught
                            dry_failure_words, dry_status, join_notes, nh3_net_component,
                            sampling_gap_note,
                            wet_component, wet_outputs, wet_sulfate_total)
-from .budgetstatus_dry import _met_without
+from .budgetstatus_dry import _met_gap_hours, _met_gaps, _met_without
 from .surfacehistory import collector_shares, period_notes
 from .wet.deposition import COVERAGE_SHORT
 
@@ -187,7 +187,9 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                   else np.full((len(sites), n_p), "", object))
             st, fl, why = dry_status(cov, vdc, fs, fc, meas, sok, bool(d_ratio[k]), options,
                                      masked=mk[:, None, None], period_masked=pm[:, None, :],
-                                     met_without=_met_without(dr)[:, None, None])
+                                     met_without=_met_without(dr)[:, None, None],
+                                     met_gaps=_met_gaps(dr)[:, None, :],
+                                     met_gap_h=_met_gap_hours(dr)[:, None, :])
             why = sampling_gap_note(why, st, cov, hours_p[None, None, :], "air")
             fails[..., j] = fl
             failure[..., j] = np.where(fl, dry_failure_words(cov, fc, sok, options), "")

@@ -9,7 +9,7 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
-from .budgetstatus_notes import join_notes
+from .budgetstatus_notes import SAMPLING_GAP_NOTE_H, join_notes
 from .wet.qa import exceeds, falls_short
 
 
@@ -96,6 +96,11 @@ def dry_failure_words(coverage, flux_cov, season_ok, options):
     return out.astype(object)
 
 
+#: The smallest share of a period sampled but without a flux that a dry note tells [1]
+#: (a difference of shares to rounding is none; one hour of a year is 1.1e-4).
+PART_FLUX_TOL = 1e-6
+
+
 def _met_without(dr) -> np.ndarray:
     """The ``met_without`` words per site of dry components `dr` ("" where absent)."""
     if "met_without" in dr.variables:
@@ -103,8 +108,40 @@ def _met_without(dr) -> np.ndarray:
     return np.full(dr.sizes["site"], "", object)
 
 
+def _met_gaps(dr) -> np.ndarray:
+    """The ``met_gaps`` words per (site, period) of dry components `dr` ("" where
+    absent: :func:`workbench.drycomponents.period_met_gaps`)."""
+    if "met_gaps" in dr.variables:
+        return dr.variables["met_gaps"].values.astype(object)
+    return np.full((dr.sizes["site"], dr.sizes["period"]), "", object)
+
+
+def _met_gap_hours(dr) -> np.ndarray:
+    """The ``met_gap_hours`` per (site, period) of dry components `dr` [h] (0 where
+    absent)."""
+    if "met_gap_hours" in dr.variables:
+        return dr.variables["met_gap_hours"].values
+    return np.zeros((dr.sizes["site"], dr.sizes["period"]))
+
+
+def filled_vd_words(filled_share, options) -> np.ndarray:
+    """Why a dry component is ``filled``: the share of the hours behind its flux whose
+    Vd was not modelled, with the bound it exceeds.
+
+    >>> from workbench.budget_options import BudgetOptions
+    >>> filled_vd_words(np.array([0.115]), BudgetOptions()).tolist()
+    ['deposition velocity not modelled in 11.5 % of the hours behind the flux (filled from the diurnal cycle or the sample mean; more than 10 %)']
+    """
+    pct = np.char.mod("%.1f", 100.0 * np.nan_to_num(np.asarray(filled_share, float)))
+    bound = 100.0 * (1.0 - options.min_vd_coverage)
+    return np.char.add(np.char.add("deposition velocity not modelled in ", pct),
+                       " % of the hours behind the flux (filled from the diurnal cycle or "
+                       f"the sample mean; more than {bound:.3g} %)").astype(object)
+
+
 def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
-                options, masked="", period_masked="", met_without=""):
+                options, masked="", period_masked="", met_without="", met_gaps="",
+                met_gap_h=0.0):
     """Status, completeness failure and reason of a dry component.
 
     Parameters
@@ -127,6 +164,17 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
         The variables a Vd reads that the site's met has in no hour ("wind speed"; ""
         for none: :func:`workbench.io.metgaps.without_value`), broadcastable to
         `coverage`: named as the reason where no hour has a Vd.
+    met_gaps : str or ndarray of str, optional
+        The period's hours without a met row or a value a Vd reads, in words
+        (:func:`workbench.drymetgaps.met_gap_words`; "" for none), broadcastable to
+        `coverage`: the reason of a period whose Vd was filled, whose flux is known
+        for part of its sampled hours, or which has no Vd at all, and added to the note
+        of a component flagged for another reason (a year without samples or met).
+    met_gap_h : float or ndarray, optional
+        The most hours of one kind of those gaps [h], broadcastable to `coverage`: a
+        ``complete`` component says its period's met gaps where they last at least
+        :data:`workbench.budgetstatus_notes.SAMPLING_GAP_NOTE_H` (a week; the rule of
+        the notes of sampling gaps), as its Vd then rests on the diurnal fill.
 
     Returns
     -------
@@ -134,7 +182,8 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
     fails : ndarray of bool
         A present component fails completeness (status ``flagged``).
     note : ndarray of str
-        Why a component is missing or flagged ('' otherwise).
+        Why a component is missing, flagged or filled, or why its flux rests on part
+        of its sampled hours ('' otherwise).
     """
     vd_any = np.nan_to_num(vd_cov) + np.nan_to_num(filled_share)
     # a share equal to its bound (to rounding) is inside it: 10 % filled is not "more
@@ -145,9 +194,15 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
     status = np.where(exceeds(filled_share, 1 - options.min_vd_coverage), "filled", status)
     status = np.where(fails, "flagged", status)
     note = np.full(coverage.shape, "", dtype=object)
-    note = np.where(low_flux & (flux_cov > 0) & (flux_cov < coverage),
-                    "flux known for part of the sampled hours only (Vd or air density "
-                    "missing in the others)", note)
+    # sampled hours without a flux (no Vd the fill could close, no air density): the
+    # period's flux is scaled up from the others, said whether or not it passes
+    part_flux = (flux_cov > 0) & (np.asarray(coverage, float) - flux_cov > PART_FLUX_TOL)
+    note = np.where(part_flux, np.char.add(np.char.add(np.char.add(
+        "flux known for part of the sampled hours only (",
+        np.char.mod("%.1f", 100.0 * np.nan_to_num(np.asarray(flux_cov, float)))),
+        np.char.add(" % of the period with a flux, ",
+                    np.char.mod("%.1f", 100.0 * np.nan_to_num(np.asarray(coverage, float))))),
+        " % sampled; Vd or air density missing in the others)").astype(object), note)
     note = np.where(~season_ok & (coverage > 0), "a season without concentrations", note)
     no_vd = vd_any <= 0
     # the variables the site's met has in no hour, named where it has no Vd at all
@@ -162,6 +217,22 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
                         "no molar density of air (temperature or pressure) in the sampled "
                         "hours: the mixing ratio cannot become a flux" if ratio else
                         "no hour with both a concentration and a deposition velocity")
+    gaps = np.broadcast_to(np.asarray(met_gaps, dtype=object), np.shape(coverage))
+    gaps = np.where(pd.isna(gaps), "", gaps).astype(object)
+    # the period's own met gaps, named where the whole record has the variable: a
+    # sensor dead for six weeks leaves a filled, partial or missing period behind
+    why_none = np.where(no_vd & (lacks == "") & (gaps != ""),
+                        np.char.add("no deposition velocity for any hour of the period: ",
+                                    gaps.astype(str)).astype(object), why_none)
+    is_filled = status == "filled"
+    note = np.where(is_filled, join_notes(note, filled_vd_words(
+        np.broadcast_to(filled_share, np.shape(coverage)), options)), note)
+    # the period's met gaps where its Vd was filled, its flux is known for part of the
+    # sampled hours, or it is flagged for another reason (a year without samples and
+    # met reads as both)
+    long_gap = np.broadcast_to(np.asarray(met_gap_h, float), np.shape(coverage)) \
+        >= SAMPLING_GAP_NOTE_H - 1e-6
+    note = np.where(part_flux | is_filled | fails | long_gap, join_notes(note, gaps), note)
     gone = (coverage > 0) & ~(flux_cov > 0)
     note = np.where(gone, why_none, note)
     note = np.where(~(coverage > 0), no_concentration_note(
@@ -293,7 +364,9 @@ def bracket_outputs(dr, pairs, species, vd_cov, filled_share, measured, season_o
             st, _, note = dry_status(cov, vd_cov[..., k], filled_share[..., k], fc, meas, sok,
                                      bool(ratio[ks].any()), options, masked=mk[:, None, None],
                                      period_masked=pm[:, None, :],
-                                     met_without=_met_without(dr)[:, None, None])
+                                     met_without=_met_without(dr)[:, None, None],
+                                     met_gaps=_met_gaps(dr)[:, None, :],
+                                     met_gap_h=_met_gap_hours(dr)[:, None, :])
             note = np.where(note == "", note, f"the weaker of {' and '.join(members)}: " + note)
             compl = np.fmin(np.fmin(cov, fc), vd_cov[..., k])
             miss = st == "missing"

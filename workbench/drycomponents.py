@@ -24,6 +24,8 @@ from .budget import COMPONENTS
 from .dryfilled import (covered_filled_share, row_filled_deposition_share,  # noqa: F401
                         row_filled_hours)
 from .dryflux import no_hour_inside, period_axes, period_mean, share_to_periods
+from .drymetgaps import met_gap_hours, met_gap_words
+from .io.metgaps import VD_INPUTS
 from .drynss import (CENSORED_WORDS, _nss_particles, _pso4_cell_notes,  # noqa: F401
                      _rows_by_cell, censored_na_notes, censored_nss_notes,
                      total_used_notes)
@@ -72,6 +74,9 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         species measured there has no value left, "" otherwise), ``period_masked_note``
         (site, period, species: :func:`period_masked_notes`), ``met_without`` (site: the
         variables a Vd reads that the site's met has in no hour, "" for none),
+        ``met_gaps`` (site, period: the period's hours without a met row or a value a
+        Vd reads, in words, "" for none; :func:`period_met_gaps`), ``met_gap_hours``
+        (site, period: the most hours of one kind of those gaps [h]),
         ``mixing_ratio`` (species: given as a mixing ratio), ``pSO4_total_used`` (site,
         period; text naming the pSO4 samples without pNa whose total pSO4 was used on
         the nss basis, "" where none; :func:`workbench.drynss.total_used_notes`), the pair brackets
@@ -137,6 +142,7 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
                    "point model, deposition - emission (positive down)"}),
                "nh3_emission": (dims3, e, {"units": "mol m-2",
                                            "long_name": "NH3 emission term over the period"})}
+    gap_words, gap_hours = period_met_gaps(rows, axes, n_s)
     brackets = {}
     for (pair, how), members in shared.items():
         brackets.update(bracket_variables(pair, how, members, hours_p))
@@ -162,6 +168,13 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
              "met_without", np.full(len(sites), ""))).astype(str),
                          {"long_name": "the variables a deposition velocity reads that the "
                           "site's met record has in no hour ('' for none)"}),
+         "met_gaps": (("site", "period"), gap_words,
+                      {"long_name": "the period's hours without a met row or a value a "
+                       "deposition velocity reads, in words ('' for none)"}),
+         "met_gap_hours": (("site", "period"), gap_hours,
+                           {"units": "h", "long_name": "the most hours of the period "
+                            "without a met row or without a value of one variable a "
+                            "deposition velocity reads"}),
          "concentration": (("site", "period", "species"), conc,
                            {"units": "mol m-3", "long_name": "time-weighted mean concentration "
                             "over the covered hours (amount of species; ambient)"}),
@@ -178,6 +191,20 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
         coords={"site": sites, "receptor": receptors, "period": periods["label"].values,
                 "species": species_list})
     return ds
+
+
+def period_met_gaps(rows: dict, axes, n_sites: int):
+    """The met gaps of each (site, period): in words
+    (:func:`workbench.drymetgaps.met_gap_words`; "" where none and where the rows hold
+    no met runs, rows made without a met record) and the most hours of one kind (no
+    row, or no value of one variable) [h]."""
+    runs, times = rows.get("met_gap_runs"), rows.get("met_times")
+    if runs is None or times is None:
+        return (np.full((n_sites, len(axes)), "", dtype=object).astype(str),
+                np.zeros((n_sites, len(axes)), np.int64))
+    counts = met_gap_hours(runs, times, axes.start, axes.end, axes.hours, n_sites,
+                           1 + len(VD_INPUTS))
+    return met_gap_words(counts, axes.hours, VD_INPUTS).astype(str), counts.max(axis=1)
 
 
 def period_masked_notes(runs, periods: pd.DataFrame, n_sites: int, n_species: int) -> np.ndarray:

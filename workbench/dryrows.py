@@ -21,7 +21,7 @@ from .dryflux import _inputs_for, deposition_rows
 from .drynss import _nss_particles
 from .drypairs import combined_notes, split_pairs
 from .dryvelocities import NH3_EXCHANGE, fill_arrays
-from .io.metgaps import VD_INPUTS, without_value
+from .io.metgaps import VD_INPUTS, gap_runs, without_value
 
 
 def _fingerprint(air: xr.Dataset, species: str) -> str:
@@ -194,7 +194,10 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
         exchange's Vd); ``"notes"``,
         ``"measured"`` (site x species bool), ``"met_without"`` (site str: the
         variables a Vd reads that the site's met has in no hour,
-        :func:`workbench.io.metgaps.without_value`), ``"masked_note"`` (site x species str,
+        :func:`workbench.io.metgaps.without_value`), ``"met_gap_runs"`` and
+        ``"met_times"`` (the runs of hours without a met row or a value a Vd reads,
+        :func:`workbench.io.metgaps.gap_runs`, on the met's time axis),
+        ``"masked_note"`` (site x species str,
         :func:`masked_notes`), ``"masked_runs"`` (the masked rows, :func:`masked_runs`;
         the moved-into species of a ``pair_split`` holds the other member's too),
         ``"receptors"``, ``"times"``, ``"sites"``;
@@ -272,6 +275,11 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
     # the variables a Vd reads that a site's met has in no hour (the met note's "has a
     # value in 0 (none)"): named where the site has no Vd at all
     out["met_without"] = without_value(met.value, sites, VD_INPUTS)
+    # the runs of hours without a met row or a value a Vd reads, per site: counted per
+    # reporting period by dry_components (the reason of a period's filled or missing Vd)
+    out["met_gap_runs"] = gap_runs(met.value, sites, VD_INPUTS)
+    out["met_times"] = (met.value["time"].values if met.value is not None
+                        and "time" in met.value.coords else None)
     # pair_split: the main components of a pair from the bracket's rows (_apply_split)
     out["split"] = split_pairs(options.pair_split, out, air_v, nodes)
     for pair, (into, other, _) in out["split"].items():

@@ -88,6 +88,7 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     tot = t[(t["pathway"] == "total") & (t["species"] == "all")]
     passes = (tot["passes"].astype(bool) if "passes" in tot
               else ~tot["status"].isin(["flagged", "missing"]))
+    left_out = _left_out_notes(tot, passes)
     fewer = pd.Series("", index=tot.index, dtype=object)
     if "missing_components" in tot and len(tot):
         by3 = ["site", "receptor", "element"]
@@ -152,7 +153,10 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
         pd.MultiIndex.from_frame(agg[keys])).fillna("").to_numpy(dtype=object)
     fewer_note = (agg["note"].fillna("").to_numpy(dtype=object) if "note" in agg
                   else np.full(len(agg), "", dtype=object))
-    agg["note"] = join_notes(fewer_note, yearly)
+    # why each year failing completeness is left out (years_excluded lists it alone)
+    why_out = left_out.reindex(pd.MultiIndex.from_frame(agg[by])).fillna("").to_numpy(
+        dtype=object)
+    agg["note"] = join_notes(join_notes(why_out, fewer_note), yearly)
     cols = list(BUDGET_COLUMNS) + ["period", "years_used", "years_excluded",
                                    "missing_components", "flagged_components", "note"]
     if "sulfate_basis" in used:
@@ -166,6 +170,33 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
             SULFATE_BASIS_WORDS["total"], SULFATE_BASIS_WORDS["nss"]], "").astype(object)
         cols.append("sulfate_basis")
     return agg[cols]
+
+
+#: The words of a span row's note on a year left out for failing completeness, with
+#: budget.csv's ``completeness_failure`` of that year's total (or its status).
+LEFT_OUT_NOTE = "{year} left out: {why}"
+
+
+def _left_out_notes(tot: pd.DataFrame, passes: pd.Series) -> pd.Series:
+    """Per (site, receptor, element), why each year whose total fails completeness is
+    left out of the span mean: "2021 left out: fails completeness (SO4: gauge record
+    below minimum (1.8 % of the period; minimum 90 %))", "2019 left out: missing";
+    '; '-joined in year order.  Before, years_excluded named the year and no note
+    said why.  The loop runs over the excluded site-years, never over hours."""
+    by = ["site", "receptor", "element"]
+    out = tot.loc[~passes.to_numpy(), by + ["year", "status"]
+                  + (["completeness_failure"] if "completeness_failure" in tot else [])]
+    if out.empty:
+        return pd.Series(dtype=object, index=pd.MultiIndex.from_tuples([], names=by))
+    why = (out["completeness_failure"].fillna("").astype(str)
+           if "completeness_failure" in out else pd.Series("", index=out.index))
+    status = out["status"].astype(str)
+    words = np.where(why != "", "fails completeness (" + why + ")",
+                     np.where(status == "missing", "missing", "fails completeness"))
+    text = [LEFT_OUT_NOTE.format(year=int(y), why=w)
+            for y, w in zip(out["year"].to_numpy(), words)]
+    return (out.assign(_t=text).sort_values("year", kind="stable")
+            .groupby(by, sort=False)["_t"].agg("; ".join))
 
 
 def _notes_by_year(rows: pd.DataFrame, keys) -> pd.Series:

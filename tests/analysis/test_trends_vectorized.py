@@ -26,7 +26,10 @@ def _reference(year_rows, month_rows=None, dl_notes=None, min_years=10, alpha=0.
         for variant, keep in VARIANTS.items():
             use = np.isin(status, keep) & np.isfinite(x)
             left = pd.Series(status[~use]).value_counts()
-            excluded = ("years left out: " + ", ".join(f"{n} {s}" for s, n in left.items())
+            out_years = {s: " ".join(sorted(str(y) for y in years[~use][status[~use] == s]))
+                         for s in left.index}
+            excluded = ("years left out: " + ", ".join(f"{n} {s} ({out_years[s]})"
+                                                       for s, n in left.items())
                         if len(left) else "")
             r = mann_kendall(np.where(use, x, np.nan), years.astype(float), alpha)
             gap = sorted(set(range(years.min(), years.max() + 1)) - set(years.tolist()))

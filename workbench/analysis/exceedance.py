@@ -64,7 +64,9 @@ def annual_totals(result) -> pd.DataFrame:
         the first criterion failed, with its share and minimum) and ``s_basis``
         (budget.csv's ``sulfate_basis`` of the wet S sum: ``total`` where the wet S
         holds total SO4, sea salt included, e.g. a period whose non-sea-salt mean fell
-        back for want of the sea-salt tracer; ``""`` where not known).
+        back for want of the sea-salt tracer; ``""`` where not known), ``s_components``,
+        ``n_components`` (the components of the total that are filled or flagged, by
+        status: "filled: SO2 pSO4"; :func:`_component_statuses`).
     """
     from ..tables import budget_table, span_table
     if result.options.get("resolution", "year") == "year":
@@ -74,6 +76,7 @@ def annual_totals(result) -> pd.DataFrame:
         rows = pd.concat([years, span_table(years)], ignore_index=True)
     tot = rows[(rows["pathway"] == "total") & (rows["species"] == "all")]
     keys = ["site", "receptor", "period"]
+    comp_words = _component_statuses(rows, keys)
     parts = []
     for el in ("S", "N"):
         e = tot[tot["element"] == el].set_index(keys)
@@ -89,7 +92,10 @@ def annual_totals(result) -> pd.DataFrame:
                                    f"{el.lower()}_status": e["status"],
                                    f"{el.lower()}_missing": miss.fillna("").astype(str),
                                    f"{el.lower()}_fails": fails.astype(bool),
-                                   f"{el.lower()}_failure": why.where(fails, "")}))
+                                   f"{el.lower()}_failure": why.where(fails, ""),
+                                   f"{el.lower()}_components": comp_words.get(
+                                       el, pd.Series(dtype=object)).reindex(e.index)
+                                   .fillna("").astype(str)}))
     out = pd.concat(parts, axis=1).reset_index()
     # which sulfate the S total holds (the wet S sum's label; the dry pSO4 follows the
     # same basis): a row on the nss basis whose wet SO4 fell back to total SO4 had only
@@ -102,6 +108,35 @@ def annual_totals(result) -> pd.DataFrame:
         out["s_basis"] = basis.reindex(pd.MultiIndex.from_frame(out[keys])).fillna(
             "").to_numpy(dtype=object)
     return out
+
+
+def _component_statuses(rows: pd.DataFrame, keys) -> dict:
+    """Per element, the components of each (site, receptor, period) whose status is not
+    complete, by status: "filled: SO2 pSO4" or "flagged: SO4; filled: HNO3" (a
+    ``filled`` or ``flagged`` total said only "S total filled" before, not which of its
+    components nor where to read why: budget.csv's rows of those components).
+
+    Returns
+    -------
+    dict of str to pandas.Series
+        Element -> words indexed by `keys` (absent where every component is complete).
+    """
+    if not {"pathway", "species", "status", "element"} <= set(rows.columns):
+        return {}
+    c = rows[rows["pathway"].isin(["wet", "dry"]) & (rows["species"] != "all")
+             & rows["status"].isin(["flagged", "filled"])]
+    if c.empty:
+        return {}
+    c = c.drop_duplicates(keys + ["element", "pathway", "species"])
+    by_status = (c.groupby(keys + ["element", "status"], sort=False)["species"]
+                 .agg(" ".join).reset_index())
+    by_status["_w"] = by_status["status"].astype(str) + ": " + by_status["species"]
+    # flagged first, then filled
+    by_status = by_status.sort_values("status", key=lambda s: s.map({"flagged": 0,
+                                                                   "filled": 1}),
+                                      kind="stable")
+    words = by_status.groupby(keys + ["element"], sort=False)["_w"].agg("; ".join)
+    return {el: w.droplevel("element") for el, w in words.groupby(level="element")}
 
 
 def _join(*notes) -> np.ndarray:
@@ -144,7 +179,14 @@ def _status(frame: pd.DataFrame):
                if f"{el}_failure" in frame else pd.Series("", s.index))
         why = why.where(why != "", "a criterion of budget.csv")
         said = pd.Series(np.where(fails, "fails completeness (" + why + ")", s), dtype=object)
-        text = f"{el.upper()} total " + said + np.where(m != "", " (without " + m + ")", "")
+        comps = (frame[f"{el}_components"].fillna("").astype(str).reset_index(drop=True)
+                 if f"{el}_components" in frame else pd.Series("", s.index))
+        # which components a filled or flagged total holds so (budget.csv's notes of
+        # those rows say why)
+        comps = comps.where(~fails & s.isin(["filled", "flagged"]).to_numpy(), "")
+        text = (f"{el.upper()} total " + said
+                + np.where(comps != "", " (" + comps + ")", "")
+                + np.where(m != "", " (without " + m + ")", ""))
         # a filled total is named too: the row's status "filled" had an empty note
         notes.append(text.where(s.isin(["partial", "flagged", "missing", "filled"]) | fails, ""))
     failing = _fails(frame, "s") | _fails(frame, "n")

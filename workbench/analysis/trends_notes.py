@@ -94,18 +94,26 @@ def _flags(n, var_s, vmin, gaps="", median=np.nan):
             NO_PERCENT_ZERO if median == 0 else "", gaps)
 
 
-def _left_out_notes(code, status, n_series) -> list:
-    """'years left out: 2 flagged, 1 filled' of each series (most frequent status first,
-    then the first seen), from the series code and status of the rows left out, in the
-    order of the series' rows."""
+def _left_out_notes(code, status, n_series, year=None) -> list:
+    """'years left out: 2 flagged (2019 2021), 1 filled (2017)' of each series (most
+    frequent status first, then the first seen), from the series code, status and
+    `year` of the rows left out, in the order of the series' rows; without `year`, the
+    counts alone ('2 flagged': the years were not said before, so that a user could
+    not find the year a trend left out)."""
     import pandas as pd
     notes = [""] * n_series
     if not code.size:
         return notes
-    f = pd.DataFrame({"c": code, "st": status, "pos": np.arange(code.size)})
-    g = f.groupby(["c", "st"], sort=False)["pos"].agg(["size", "min"]).reset_index()
-    g = g.sort_values(["c", "size", "min"], ascending=[True, False, True], kind="stable")
+    yr = (np.asarray(year).astype(str) if year is not None
+          else np.full(code.size, "", dtype=object))
+    f = pd.DataFrame({"c": code, "st": status, "pos": np.arange(code.size), "y": yr})
+    g = f.groupby(["c", "st"], sort=False).agg(size=("pos", "size"), min=("pos", "min"),
+                                               years=("y", lambda v: " ".join(sorted(v))))
+    g = g.reset_index().sort_values(["c", "size", "min"], ascending=[True, False, True],
+                                    kind="stable")
     text = g["size"].astype(str) + " " + g["st"].astype(str)
+    if year is not None:
+        text = text + " (" + g["years"].astype(str) + ")"
     for c, parts in text.groupby(g["c"].to_numpy(), sort=False):
         notes[int(c)] = "years left out: " + ", ".join(parts)
     return notes

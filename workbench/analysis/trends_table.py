@@ -145,7 +145,8 @@ def _annual_columns(y, dl_notes, min_years, alpha, serial=None):
         if serial == "hamed_rao":
             hr = hamed_rao_batch(grid, all_years.astype(float), stats[variant], alpha)
             stats[variant].update({f"hr_{k}": v for k, v in hr.items()})
-        excluded[variant] = _left_out_notes(code[~use], status[~use], len(keys))
+        excluded[variant] = _left_out_notes(code[~use], status[~use], len(keys),
+                                            year[~use])
     dl = [_dl_note(dl_notes, *k[:1], *k[2:]) for k in keys]
     return _table_rows(keys, "annual", stats, min_years, excluded, dl,
                        _gap_notes(code, year, len(keys)))
@@ -167,7 +168,8 @@ def _annual_rows_per_series(y, dl_notes, min_years, alpha, serial=None):
         gaps = _gap_notes(np.zeros(years.size, np.int64), years, 1)[0]
         for variant, keep in VARIANTS.items():
             use = np.isin(status, keep) & np.isfinite(x)
-            excluded = _left_out_notes(np.zeros(int((~use).sum()), np.int64), status[~use], 1)[0]
+            excluded = _left_out_notes(np.zeros(int((~use).sum()), np.int64), status[~use], 1,
+                                       years[~use])[0]
             r = mann_kendall(np.where(use, x, np.nan), years.astype(float), alpha)
             rows.append(_row(key, "annual", variant, years[use], r, min_years,
                              np.median(x[use]) if use.any() else np.nan, excluded, dl,

@@ -232,9 +232,11 @@ def _load(sites, precipitation, air, met, reference_state, progress, flag_map) -
         # catalogue's longitude and offset) supersedes the catalogue's zone note
         gone = {cat.zone_notes[s] for s in led.clock_judged if s in cat.zone_notes}
         inp.ledger.notes = [n for n in inp.ledger.notes if n not in gone]
-    from .samplegaps import sampling_gap_notes      # weeks without samples, per sampler
+    from .samplegaps import (sampling_gap_notes,     # weeks without samples, per sampler
+                             species_gap_notes)      # and without one species' values
     inp.ledger.notes.extend(sampling_gap_notes(inp.precipitation, "precipitation")
-                            + sampling_gap_notes(inp.air, "air"))
+                            + sampling_gap_notes(inp.air, "air")
+                            + species_gap_notes(inp.air, "air"))
     inp.ledger.notes.extend(_history_notes(inp, cat))
     if inp.met is not None and inp.precipitation is not None:
         gc = _gauge_check(inp.met, inp.precipitation)

@@ -46,7 +46,37 @@ def value_hours(values, rows, i: int) -> dict:
             for name in VALUE_NAMES if name in values}
 
 
-def value_counts(values, rows, i: int) -> str:
+#: The shortest stretch of hours without a value of a variable (among hours with a row)
+#: that the met note of a site dates [h]: a week, as the budget's notes of sampling
+#: gaps (:data:`workbench.budgetstatus_notes.SAMPLING_GAP_NOTE_H`; our choice).
+VALUE_GAP_NOTE_H = 168
+
+
+def longest_without(mask, times) -> str:
+    """The longest stretch of `mask` (hours with a row and no value of a variable) as
+    words, " (none for 1008 h from 2019-02-28T23:00 UTC)", where it lasts at least
+    :data:`VALUE_GAP_NOTE_H` hours; "" otherwise.  The hours are counted on the time
+    axis: a stretch broken by hours without a row is two stretches.
+
+    >>> t = np.arange(1, 301).astype("datetime64[h]")
+    >>> longest_without(np.arange(300) >= 100, t)
+    ' (none for 200 h from 1970-01-05T05:00 UTC)'
+    >>> longest_without(np.arange(300) >= 290, t)
+    ''
+    """
+    m = np.asarray(mask, bool)
+    edges = np.diff(np.concatenate([[0], m.astype(np.int8), [0]]))
+    a, b = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
+    if not len(a):
+        return ""
+    k = int(np.argmax(b - a))
+    if b[k] - a[k] < VALUE_GAP_NOTE_H:
+        return ""
+    return (f" (none for {int(b[k] - a[k])} h from "
+            f"{str(np.datetime64(times[a[k]], 'm'))[:16]} UTC)")
+
+
+def value_counts(values, rows, i: int, times=None) -> str:
     """The hours with a value of each variable of :data:`VALUE_NAMES` that lacks one in
     some hour with a row of the site, as words ("" when none lacks one).
 
@@ -67,6 +97,11 @@ def value_counts(values, rows, i: int) -> str:
     'of its 3 hours with a row, wind speed has a value '
     >>> value_counts({"temperature": np.ones((1, 4))}, np.ones(4, bool), 0)
     ''
+
+    With `times` (the hour ends of the time axis), a variable with a value in some
+    hours but none for a week or more in a row says its longest such stretch
+    (:func:`longest_without`): "wind speed has a value in 69120 (none for 1008 h from
+    2019-02-28T23:00 UTC)".
     """
     n = int(np.count_nonzero(rows))
     words = []
@@ -74,6 +109,9 @@ def value_counts(values, rows, i: int) -> str:
         if k < n:
             what = name.replace("_", " ")
             count = f"{k} (none)" if k == 0 else str(k)
+            if times is not None and k > 0:
+                count += longest_without(np.asarray(rows, bool) & np.isnan(
+                    np.asarray(values[name][i], float)), times)
             words.append(f"{what} in {count}" if words else f"{what} has a value in {count}")
     return f"of its {n} hours with a row, " + ", ".join(words) if words else ""
 
@@ -118,6 +156,65 @@ def without_value(met, sites, names=VALUE_NAMES) -> np.ndarray:
     return out
 
 
+#: The name of the first kind of :func:`gap_runs`: hours without a row of the site's met
+#: record (every variable lacks a value there).
+NO_ROW = "row"
+
+
+def gap_runs(met, sites, names=VD_INPUTS):
+    """The runs of hours of each site of `sites` without a met row, and, among the hours
+    with a row, without a value of each variable of `names`, as one table of runs (the
+    input of :func:`workbench.drymetgaps.met_gap_words`, which counts them per period).
+
+    Parameters
+    ----------
+    met : xarray.Dataset or None
+        ``row_present``, ``site``, ``time`` and the variables on (site, time).
+    sites : sequence of str
+    names : tuple of str
+        The variables whose hours without a value are told (default: those a
+        deposition velocity reads, :data:`VD_INPUTS`).
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``site`` (position in `sites`), ``kind`` (0: no row, :data:`NO_ROW`; 1 + i:
+        no value of ``names[i]`` in an hour with a row), ``a``, ``b`` (the run's hours
+        [a, b) on the met's time axis); empty where `met` is None or has no
+        ``row_present``.  A variable absent from `met` is no gap of the record (an
+        optional one is often absent; a required one is refused by the reader).
+
+    >>> import xarray as xr
+    >>> m = xr.Dataset({"row_present": (("site", "time"), [[True, True, True, False]]),
+    ...                 "wind_speed": (("site", "time"), [[1.0, np.nan, np.nan, np.nan]])},
+    ...                coords={"site": ["a"]})
+    >>> gap_runs(m, ["a"], ("wind_speed",)).values.tolist()
+    [[0, 0, 3, 4], [0, 1, 1, 3]]
+    """
+    import pandas as pd
+    cols = {"site": [], "kind": [], "a": [], "b": []}
+    if met is None or "row_present" not in met:
+        return pd.DataFrame(cols, dtype=int)
+    ids = [str(s) for s in met["site"].values]
+    for j, site in enumerate(sites):        # one site at a time (a record held on disk)
+        if str(site) not in ids:
+            continue
+        i = ids.index(str(site))
+        rows = np.asarray(met["row_present"].isel(site=i).values, bool)
+        masks = [~rows] + [rows & np.isnan(np.asarray(met[k].isel(site=i).values, float))
+                           if k in met else np.zeros(rows.shape, bool) for k in names]
+        for kind, m in enumerate(masks):
+            edges = np.diff(np.concatenate([[0], m.astype(np.int8), [0]]))
+            a, b = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
+            cols["site"].append(np.full(len(a), j))
+            cols["kind"].append(np.full(len(a), kind))
+            cols["a"].append(a)
+            cols["b"].append(b)
+    if not cols["a"]:
+        return pd.DataFrame({k: [] for k in cols}, dtype=int)
+    return pd.DataFrame({k: np.concatenate(v).astype(int) for k, v in cols.items()})
+
+
 def describe_gaps(met, values=None) -> list[str]:
     """Text notes on missing hours per site between its first and last row, and on the
     hours without a value of a required variable (:func:`value_counts`): a site whose
@@ -145,7 +242,7 @@ def describe_gaps(met, values=None) -> list[str]:
         a, b = np.flatnonzero(p)[[0, -1]]
         inner = ~p[a:b + 1]
         n_miss = int(inner.sum())
-        counts = value_counts(values, p, i)
+        counts = value_counts(values, p, i, times)
         span = f"{str(times[a])[:16]} to {str(times[b])[:16]} UTC"
         if n_miss == 0 and not counts:
             notes.append(f"met {site}: {COMPLETE_RECORD} {span}")

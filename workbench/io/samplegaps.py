@@ -172,3 +172,70 @@ def sampling_gap_notes(ds, role: str) -> list[str]:
                        f"{'' if len(gaps) == 1 else 's'}; longest {_weeks(secs[j])} from "
                        f"{_day(gaps[j][0])} to {_day(gaps[j][1])} UTC)")
     return out
+
+
+def species_gap_notes(ds, role: str = "air") -> list[str]:
+    """Lines on the stretches a sampler ran without a value of one of its species: a
+    month of NH3 blank in rows whose other species have values leaves no gap of the
+    sampler (:func:`sampling_gap_notes` says nothing) but lowers that species' coverage
+    alone (its ``air_coverage`` in budget.csv).
+
+    A species counts for a sampler where it has a value (or one below detection) in
+    some row of it; a stretch of at least the sampler's median sample length (and
+    :data:`MIN_GAP_DAYS`) inside the sampler's record without such a row is said,
+    unless the sampler had no row there (a gap of the sampler, said by
+    :func:`sampling_gap_notes`) or another sampler of the site has the species there.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        Air periods (dim ``period``) with ``site``, ``start``, ``end``, optionally
+        ``sampler_id``, and the species (variables with a ``quantity`` attribute,
+        NaN where no value; ``<species>_censored`` where below detection).
+    role : str
+        The word the lines open with.
+
+    Returns
+    -------
+    list of str
+        E.g. ``air RDG-F1: NH3 without a value in 4 weeks of its samples (1 gap;
+        longest 4 weeks from 2020-06-04 14:00 to 2020-07-02 14:00 UTC)``.
+    """
+    if ds is None or not ds.sizes.get(next(iter(ds["site"].dims), ""), 0):
+        return []
+    site = ds["site"].values.astype(str)
+    start, end = ds["start"].values, ds["end"].values
+    sampler = (ds["sampler_id"].values.astype(str) if "sampler_id" in ds
+               else np.full(site.shape, ""))
+    key = np.where(sampler == "", site, sampler)
+    species = [k for k in ds.data_vars if "quantity" in ds[k].attrs]
+    has = {sp: (np.isfinite(np.asarray(ds[sp].values, float))
+                | (np.asarray(ds[f"{sp}_censored"].values, bool)
+                   if f"{sp}_censored" in ds else False)) for sp in species}
+    day = np.timedelta64(int(MIN_GAP_DAYS * 86400), "s")
+    out = []
+    for k in dict.fromkeys(key):
+        m = key == k
+        length = max(np.median(end[m] - start[m]), day)
+        a, b = start[m].min(), end[m].max()
+        s_id = site[m][0]
+        for sp in species:
+            v = m & has[sp]
+            if not v.any() or v.sum() == m.sum():
+                continue
+            # the sampler's first start and last end as empty intervals: a species
+            # blank at the start or end of the record is a gap too
+            gaps = interval_gaps(np.concatenate([[a], start[v], [b]]),
+                                 np.concatenate([[a], end[v], [b]]), length)
+            other = (site == s_id) & ~m & has[sp]
+            gaps = [g for g in gaps if _covered(g, start[m], end[m])
+                    and not _covered(g, start[other], end[other])]
+            if not gaps:
+                continue
+            secs = np.array([(g1 - g0) / np.timedelta64(1, "s") for g0, g1 in gaps])
+            j = int(np.argmax(secs))
+            out.append(f"{role} {k}: {sp} without a value in {_weeks(secs.sum())} of its "
+                       f"samples ({len(gaps)} gap{'' if len(gaps) == 1 else 's'}; longest "
+                       f"{_weeks(secs[j])} from {_day(gaps[j][0])} to {_day(gaps[j][1])} "
+                       "UTC)")
+    return out
