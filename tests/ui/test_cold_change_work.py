@@ -153,3 +153,29 @@ def test_the_parts_rows_are_budget_csvs_without_the_unread_columns(session):
         full = budget_table(ds)
         full = full[full["species"] != "all"].reset_index(drop=True)
         pd.testing.assert_frame_equal(full[rows.columns], rows, check_exact=True)
+
+
+def test_a_budget_option_recompute_matches_no_names(session, monkeypatch):
+    """A budget option's recompute computes the budget stages only and looks no name
+    up by fuzzy match (before: the velocities' fills asked the Dataset for
+    ``land_use_in_force`` with ``get``, whose KeyError ran difflib over every variable
+    name, on every run)."""
+    import dataclasses
+    import difflib
+    study = session.study_for("ridge", 2021, 2021)
+    o = session.baseline.for_site("ridge").run_args()
+    args = dict(start="2021-01-01", end="2022-01-01", **o)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        study.run(**args)
+        calls = []
+        real = difflib.get_close_matches
+        monkeypatch.setattr(difflib, "get_close_matches",
+                            lambda *a, **k: calls.append(a) or real(*a, **k))
+        before = dict(study.graph.counts)
+        budget = dataclasses.replace(args["budget_options"], min_air_coverage=0.7123)
+        study.run(**{**args, "budget_options": budget})
+    ran = {k: n - before.get(k, 0) for k, n in study.graph.counts.items()
+           if n > before.get(k, 0)}
+    assert ran == {"budget": 1}
+    assert calls == []
