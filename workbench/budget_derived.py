@@ -56,35 +56,61 @@ def derived_status(table: pd.DataFrame) -> pd.DataFrame:
     failing for the same words (``NO3: gauge record below minimum (51.1 % of the
     period; minimum 90 %)``), the parts in the order of :data:`DERIVED_PARTS`.
 
+    Each part's status, pass and words are the first given (not NaN) on its (site,
+    receptor, period) and species, as a pivot of the rows would take them: one grouping
+    of the rows and numpy arrays (parts x species), not a pivot per column (three
+    pandas pivots were about 10 % of a cold change in the site explorer,
+    docs/performance.md).
+
     Returns
     -------
     DataFrame
         Columns site, receptor, period, ``<sum>_status``, ``<sum>_missing_components``,
-        ``<sum>_passes`` (bool) and ``<sum>_completeness_failure`` ('' where it passes).
+        ``<sum>_passes`` (bool) and ``<sum>_completeness_failure`` ('' where it passes);
+        one row per (site, receptor, period) with a status, sorted on them.
     """
     comp = table[(table["species"] != "all") & (table["period"] != "span")]
     key = ["site", "receptor", "period"]
-    st = comp.pivot_table(index=key, columns="species", values="status", aggfunc="first",
-                          observed=True)
     # a part fails where budget.csv's `passes` is false and it is present (as the
     # totals); a table without `passes` reads every flagged part as failing
     ok = (comp["passes"].astype(str).str.lower().isin(("true", "1")) if "passes" in comp
           else ~comp["status"].astype(str).isin(("flagged", "missing")))
     why = (comp["completeness_failure"].fillna("").astype(str) if "completeness_failure"
            in comp else pd.Series("", index=comp.index))
-    parts_of = comp[key + ["species"]].assign(_ok=ok.to_numpy(), _why=why.to_numpy())
-    okw = parts_of.pivot_table(index=key, columns="species", values="_ok", aggfunc="first",
-                               observed=True).reindex(index=st.index)
-    whyw = parts_of.pivot_table(index=key, columns="species", values="_why",
-                                aggfunc="first", observed=True).reindex(index=st.index)
-    out = pd.DataFrame(index=st.index)
+    named = comp["species"].notna().to_numpy()     # a row without a species: no part
+    groups = comp[named].groupby(key, sort=True, observed=True)
+    cell_of = np.full(len(comp), -1)
+    cell_of[named] = groups.ngroup().to_numpy()   # -1: a key not given
+    index = groups.size().index
+    species = list(dict.fromkeys(p for parts in DERIVED_PARTS.values() for p in parts))
+    col = pd.Index(species).get_indexer(comp["species"])
+    status = comp["status"].to_numpy(object)
+    given = (cell_of >= 0) & (col >= 0)
+    has_status = pd.notna(status) & (cell_of >= 0)
+    kept = np.zeros(len(index), bool)            # a (site, receptor, period) with a status
+    kept[cell_of[has_status]] = True
+    n_sp = len(species)
+
+    def first(values, valid, fill):
+        """(kept rows, species) of the first value of each cell where `valid`."""
+        out = np.full(len(index) * n_sp, fill, dtype=object)
+        at = np.flatnonzero(valid)
+        cells, first_at = np.unique(cell_of[at] * n_sp + col[at], return_index=True)
+        out[cells] = values[at[first_at]]
+        return out.reshape(len(index), n_sp)[kept]
+
+    st = first(status, given & has_status, "missing")
+    okw = first(ok.to_numpy(), given, True)
+    whyw = first(why.to_numpy(object), given, "")
+    out = pd.DataFrame(index=index[kept])
     for name, parts in DERIVED_PARTS.items():
-        sub = st.reindex(columns=list(parts)).fillna("missing").to_numpy(object)
+        cols = [species.index(p) for p in parts]
+        sub = st[:, cols]
         out[f"{name}_status"], _ = combine_status(sub)
         out[f"{name}_missing_components"] = _joined_names(sub == "missing", parts)
         present = sub != "missing"
-        fails = present & ~okw.reindex(columns=list(parts)).fillna(True).to_numpy(bool)
-        words = whyw.reindex(columns=list(parts)).fillna("").to_numpy(object)
+        fails = present & ~okw[:, cols].astype(bool)
+        words = whyw[:, cols]
         out[f"{name}_passes"] = ~fails.any(-1) & present.any(-1)
         out[f"{name}_completeness_failure"] = _first_failure(fails, words,
                                                              np.asarray(parts, dtype=object))

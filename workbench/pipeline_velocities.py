@@ -133,7 +133,10 @@ class _StudyVelocities:
 
         # a site's own surface that changed class inside the record: each hour's Vd is
         # filled from the hours of its class in force only (docs/methods_dry.md)
-        lu = None if vd.value is None else vd.value.get("land_use_in_force")
+        # (asked by name: a Dataset's ``get`` of a name it lacks builds a KeyError with
+        # a fuzzy "did you mean" over every variable, on every run)
+        lu = (vd.value["land_use_in_force"]
+              if vd.value is not None and "land_use_in_force" in vd.value.variables else None)
         fill_deps = {"slots": slots}
         if lu is not None and bool((lu != lu.isel(time=0)).any()):
             fill_deps["classes"] = content("land_use_in_force")

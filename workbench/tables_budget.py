@@ -144,14 +144,42 @@ def budget_table(ds: xr.Dataset, lean: bool = False) -> pd.DataFrame:
 
 
 def component_rows(ds: xr.Dataset) -> pd.DataFrame:
-    """budget.csv's component rows (no sums) of `ds` with the columns of
-    :func:`_rows` (``status``, ``passes``, ``completeness_failure`` among them): the
-    same rows, in the same order and with the same values as the component rows of
-    :func:`budget_table`, without its sums, wet, NH3 and note columns.  What the status
-    of the derived sums reads (:func:`workbench.budget_derived.derived_status`; stage
-    ``part_rows``)."""
-    return _sorted(_rows(ds, "deposition", "status", "completeness", "component",
-                         ds["element"].values, ds["pathway"].values, ds["species"].values))
+    """budget.csv's component rows (no sums) of `ds`, with the columns the status of the
+    derived sums reads (:func:`workbench.budget_derived.derived_status`; stage
+    ``part_rows``): site, receptor, period, species, ``status``, ``passes`` and
+    ``completeness_failure`` (where `ds` has it), and the keys of their order
+    (period_start, element, pathway).  The same rows, in the same order and with the
+    same values in these columns as the component rows of :func:`budget_table`; the
+    deposition, its units, fractions and notes are not built (they were most of the
+    rows' cost in a change of the site explorer, docs/performance.md)."""
+    comp = "component"
+    dims = ("site", "receptor", "period", comp)
+    v = ds.variables             # read as variables: no DataArray with every coordinate
+
+    def flat(var):
+        return v[var].transpose(*dims).values.reshape(-1)
+    shape = v["status"].transpose(*dims).shape
+    idx = np.indices(shape).reshape(4, -1)
+    active = v["active"].transpose("site", "receptor").values[idx[0], idx[1]]
+    status = _labels(flat("status"))
+    frame = pd.DataFrame({
+        "site": _labels(v["site"].values, idx[0]),
+        "receptor": _labels(v["receptor"].values, idx[1]),
+        "period_start": pd.to_datetime(v["period_start"].values[idx[2]]),
+        "element": _labels(v["element"].values, idx[3]),
+        "pathway": _labels(v["pathway"].values, idx[3]),
+        "species": _labels(v["species"].values, idx[3]),
+        "status": status, "period": _labels(v["period"].values, idx[2])})
+    if "completeness_failure" in v and comp in v["completeness_failure"].dims:
+        words = flat("completeness_failure")        # the first criterion failed
+        frame["completeness_failure"] = _labels(np.where(pd.isna(words), "", words)
+                                                .astype(str))
+    if "fails_completeness" in v and comp in v["fails_completeness"].dims:
+        frame["passes"] = (~flat("fails_completeness").astype(bool)
+                           & (frame["status"] != "missing"))
+    else:
+        frame["passes"] = ~np.isin(frame["status"].to_numpy(), ("flagged", "missing"))
+    return _sorted(frame[active])
 
 
 #: The data variables of a budget Dataset that :func:`budget_table` reads with `lean`

@@ -11,6 +11,7 @@ control.
 from __future__ import annotations
 
 import numpy as np
+import pandas as pd
 import xarray as xr
 
 from .summaries import _fmt, to_unit, total_rates
@@ -25,6 +26,14 @@ def _kg_ha_to_mol_m2(values):
     :func:`workbench.units.element_deposition_in` for ``kg_ha``)."""
     per_mol = float(to_unit(np.array([1.0]), "N", "kg/ha/yr")[0])   # kg N/ha per mol m-2
     return np.asarray(values, dtype=float) / per_mol
+
+
+def _places(index: pd.Index, labels) -> np.ndarray:
+    """Places of `labels` in `index` (text); a KeyError naming those it lacks."""
+    at = index.get_indexer(labels)
+    if (at < 0).any():
+        raise KeyError(f"periods not found: {[p for p, i in zip(labels, at) if i < 0]}")
+    return at
 
 
 def dry_n_bracket(years: xr.Dataset, derived: xr.Dataset | None, site, receptor,
@@ -51,10 +60,16 @@ def dry_n_bracket(years: xr.Dataset, derived: xr.Dataset | None, site, receptor,
         where the bars count NH3 as deposition only, as the bracket does); None when the
         run carries no bracket.
     """
-    if derived is not None and not set(years["period"].values.astype(str)) <= set(
-            derived["period"].values.astype(str)):
-        from ..budget import derived as derive     # a monthly run: the bracket of the years
-        derived = derive(years)
+    # the periods as text, read once: the years' and the derived quantities' periods
+    # are picked by place below (relabelling the axes to text on every redraw was
+    # about 10 % of a change in the site explorer, docs/performance.md)
+    year_periods = pd.Index(years["period"].values.astype(str))
+    if derived is not None:
+        derived_periods = pd.Index(derived["period"].values.astype(str))
+        if not set(year_periods) <= set(derived_periods):
+            from ..budget import derived as derive  # a monthly run: the bracket of the years
+            derived = derive(years)
+            derived_periods = pd.Index(derived["period"].values.astype(str))
     if derived is None or any(v not in derived.variables for v in BRACKET_VARS):
         return None
     t = total_rates(years, site, receptor, None, unit)
@@ -62,12 +77,11 @@ def dry_n_bracket(years: xr.Dataset, derived: xr.Dataset | None, site, receptor,
     out = {"shown": float(np.nanmean(dry["value"])) if np.isfinite(dry["value"]).any()
            else float("nan")}
     periods = [str(p) for p in dry["period"]]
+    fac = np.asarray(years["annual_factor"].values)[_places(year_periods, periods)]
+    at = _places(derived_periods, periods)
     computed = True
     for name, var in zip(("all_particle", "all_gas"), BRACKET_VARS):
-        da = derived[var].sel(site=site, receptor=receptor)
-        da = da.assign_coords(period=da["period"].astype(str)).sel(period=periods)
-        fac = years["annual_factor"].assign_coords(
-            period=years["period"].astype(str)).sel(period=periods).values
+        da = derived[var].sel(site=site, receptor=receptor).isel(period=at)
         rate = to_unit(_kg_ha_to_mol_m2(da.values), "N", unit) * fac
         computed &= bool(np.isfinite(rate).all())
         out[name] = float(np.nanmean(rate)) if np.isfinite(rate).any() else float("nan")
