@@ -118,6 +118,11 @@ def _bad_value(key, v):
         return ("not finite",
                 "a finite number >= 0 in eq/ha/yr (leave the key out where there is none)")
     if v < 0:
+        from .plausible import SENTINELS      # the data files' missing-value codes
+        if v in SENTINELS:             # a sheet's code for "no value", exported as is
+            return (f"negative value, {v:g} looks like a missing-value code",
+                    "a number >= 0 in eq/ha/yr; where there is no load, leave the key out "
+                    "(a receptor without its own value then takes the site's)")
         return "negative value", "a number >= 0 in eq/ha/yr"
     return None
 
