@@ -185,3 +185,37 @@ def test_a_period_date_in_day_month_order_gets_its_readings(tmp_path, text, iso)
     msg = _scenario_error(_scenario(tmp_path, f'[period]\nstart = "{text}"\n'))
     assert f"not a date: got '{text}'" in msg and iso in msg, msg
 
+
+
+# ------------------------------------------------------------ more of the same files
+@pytest.mark.parametrize("unit, same", [("molc/ha/yr", "eq/ha/yr"), ("eq ha-1 yr-1", "eq/ha/yr"),
+                                        ("keq/ha/a", "keq/ha/yr"), ("meq m-2 yr-1", "meq/m2/yr")])
+def test_a_critical_load_unit_written_another_way_gets_its_spelling(tmp_path, unit, same):
+    # before: molc/ha/yr (the same as eq/ha/yr) got "did you mean 'kg/ha/yr'?", 62-71 x off
+    msg = _error(tmp_path, alpha_site() + f'\n[site.critical_loads]\nunit = "{unit}"\n'
+                 "cl_nut_n = 700.0\n")
+    assert f"column 'unit': unknown unit of critical loads: got '{unit}'" in msg, msg
+    assert f"(did you mean '{same}'? the same unit written another way)" in msg, msg
+
+
+def test_a_critical_load_key_given_twice_says_so(tmp_path):
+    msg = _error(tmp_path, alpha_site() + "\n[site.critical_loads]\ncl_nut_n = 700.0\n"
+                 "cl_nut_n = 700.0\n")
+    assert "line 16: invalid TOML" in msg and "a key given twice in one table" in msg, msg
+
+
+def test_a_critical_load_table_given_twice_says_so(tmp_path):
+    block = "\n[site.critical_loads]\ncl_nut_n = 700.0\n"
+    msg = _error(tmp_path, alpha_site() + block + block)
+    assert "invalid TOML" in msg and "a table given twice" in msg, msg
+
+
+def test_an_air_period_with_its_end_at_its_start(write, cat):
+    # before: "end before start" for a period of length 0 (one hourly label in both)
+    from tiny_inputs import AIR
+    from workbench.io import read_air
+    p = write("a.csv", AIR.replace("alpha,2020-01-07T09:00,2020-01-14T09:00",
+                                   "alpha,2020-01-07T09:00,2020-01-07T09:00"))
+    msg = located_error(read_air, p, cat)
+    assert "column 'end': end equal to start (a period of length 0): got " \
+           "'2020-01-07T09:00'" in msg and "one time label per row" in msg, msg

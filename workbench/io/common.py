@@ -90,6 +90,15 @@ def check_intervals(tab: RawTable, start, end):
     bad = ~(end > start)
     if bad.any():
         i = int(np.flatnonzero(bad)[0])
+        if end[i] == start[i]:         # one time label copied into both columns (an
+            #                            hourly monitor's hour-ending label?); before:
+            #                            "end before start" for a period of length 0
+            raise tab.error("end equal to start (a period of length 0)", row=i,
+                            column="end", value=tab.frame["end"].iloc[i],
+                            expected=f"a time after the start {tab.frame['start'].iloc[i]} "
+                            "(one time label per row written in both columns? an "
+                            "hour-ending label 2022-01-01T01:00 is start 2022-01-01T00:00, "
+                            "end 2022-01-01T01:00)")
         raise tab.error("end before start", row=i, column="end", value=tab.frame["end"].iloc[i],
                         expected=f"a time after the start {tab.frame['start'].iloc[i]}")
 

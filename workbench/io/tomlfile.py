@@ -59,8 +59,8 @@ def read_toml(path, error=InputError, missing="file not found", expected="an exi
     except tomllib.TOMLDecodeError as exc:
         m = re.search(r"line (\d+)", str(exc))
         line = int(m.group(1)) if m else None
-        raise error(f"invalid TOML ({exc}){_value_hint(text, line)}", file=path,
-                    line=line) from None
+        raise error(f"invalid TOML ({exc}){_value_hint(text, line)}{_twice_hint(exc)}",
+                    file=path, line=line) from None
     except RecursionError:
         raise error("TOML nested too deeply to read", file=path,
                     expected="tables and arrays nested a few levels at most") from None
@@ -71,6 +71,17 @@ def read_toml(path, error=InputError, missing="file not found", expected="an exi
 _BARE_BOOL = re.compile(r"=\s*(True|False|TRUE|FALSE|[Yy]es|[Nn]o|YES|NO)\s*(#.*)?$")
 _BARE_WORD = re.compile(r"=\s*([A-Za-z_][^\s\"'#\[\]{}]*)\s*(#.*)?$")
 _BARE_DATE = re.compile(r"=\s*(\d{1,4}[/.]\d{1,2}[/.]\d{1,4}[^#]*?)\s*(#.*)?$")
+
+
+def _twice_hint(exc) -> str:
+    """What a key or table given twice (a row pasted twice) asks for; "" otherwise."""
+    if "Cannot overwrite a value" in str(exc):
+        return ("; a key given twice in one table (a line pasted twice?): keep one, the "
+                "value you mean")
+    if re.search(r"Cannot declare .* twice", str(exc)):
+        return ("; a table given twice (a block pasted twice?): keep one table with "
+                "each key once ([[site]] starts each new site)")
+    return ""
 
 
 def _value_hint(text, line) -> str:
