@@ -182,8 +182,7 @@ def missing_input_expected(value, base: Path, cwd: Path | None = None) -> str:
     cwd = Path.cwd() if cwd is None else cwd
     text = str(value)
     looked = (base / text).resolve() if not Path(text).is_absolute() else Path(text)
-    out = (f"a path relative to the scenario file's folder {base}, or absolute "
-           f"(looked for {looked})")
+    out = f"a path relative to the scenario file, or absolute (looked for {looked})"
     if Path(text).is_absolute():
         return out
     here = (cwd / text).resolve()
