@@ -219,3 +219,9 @@ def test_an_air_period_with_its_end_at_its_start(write, cat):
     msg = located_error(read_air, p, cat)
     assert "column 'end': end equal to start (a period of length 0): got " \
            "'2020-01-07T09:00'" in msg and "one time label per row" in msg, msg
+
+
+def test_a_critical_load_with_a_decimal_comma_says_so(tmp_path):
+    # before: "invalid TOML (Expected newline or end of document after a statement ...)"
+    msg = _error(tmp_path, alpha_site() + "\n[site.critical_loads]\ncl_nut_n = 714,5\n")
+    assert "line 15: invalid TOML" in msg and "a decimal comma? write 714.5" in msg, msg

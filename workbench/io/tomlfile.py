@@ -70,6 +70,7 @@ def read_toml(path, error=InputError, missing="file not found", expected="an exi
 #: in capitals or as yes/no (``True``, ``FALSE``, ``yes``), and a bare word.
 _BARE_BOOL = re.compile(r"=\s*(True|False|TRUE|FALSE|[Yy]es|[Nn]o|YES|NO)\s*(#.*)?$")
 _BARE_WORD = re.compile(r"=\s*([A-Za-z_][^\s\"'#\[\]{}]*)\s*(#.*)?$")
+_DECIMAL_COMMA = re.compile(r"=\s*([-+]?\d+),(\d+)\s*(#.*)?$")
 _BARE_DATE = re.compile(r"=\s*(\d{1,4}[/.]\d{1,2}[/.]\d{1,4}[^#]*?)\s*(#.*)?$")
 
 
@@ -87,10 +88,13 @@ def _twice_hint(exc) -> str:
 def _value_hint(text, line) -> str:
     """What to write for a value of `line` that TOML refuses ("" when none is seen):
     ``compare_schemes = True`` (TOML's booleans are lower case), a bare word
-    (``resolution = year``) and a date with slashes or dots (``start = 01/01/2021``).
+    (``resolution = year``), a date with slashes or dots (``start = 01/01/2021``) and a
+    decimal comma (``cl_nut_n = 714,5``).
 
     >>> _value_hint("a = True", 1)
     "; write true or false, lower case (TOML's booleans): got True"
+    >>> _value_hint("cl_nut_n = 714,5", 1)
+    '; a decimal comma? write 714.5'
     >>> _value_hint('resolution = year', 1)
     '; write text in quotes: resolution = "year"'
     """
@@ -103,6 +107,9 @@ def _value_hint(text, line) -> str:
     m = _BARE_BOOL.search(s)
     if m:
         return f"; write true or false, lower case (TOML's booleans): got {m.group(1)}"
+    m = _DECIMAL_COMMA.search(s)
+    if m:
+        return f"; a decimal comma? write {m.group(1)}.{m.group(2)}"
     m = _BARE_WORD.search(s) or _BARE_DATE.search(s)
     if m and m.group(1).lower() not in ("true", "false", "inf", "nan"):
         key = s[:s.index("=")].strip()
