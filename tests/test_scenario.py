@@ -83,11 +83,12 @@ BAD_SCENARIOS = {
     "override_roughness_zero": ("[sites.beta]\nroughness_length_m = 0.0\n",
                                 "line 4, column 'sites.beta.roughness_length_m': roughness length "
                                 "not positive: got '0.0', expected z0 > 0 m"),
-    "override_canopy_above_mast": ("[sites.alpha]\ncanopy_height_m = 16.0\n",
-                                   "line 4, column 'sites.alpha.canopy_height_m': anemometer at or "
-                                   "below the displacement height (with wind_height_m = 10.0 from "
-                                   "s.toml): got '16.0', expected wind_height_m 10 m above the "
-                                   "displacement height d = 10.7 m"),
+    # a forest's canopy (a grass canopy of 16 m is refused first as a height in cm)
+    "override_canopy_above_mast": ("[sites.beta]\ncanopy_height_m = 40.0\n",
+                                   "line 4, column 'sites.beta.canopy_height_m': anemometer at or "
+                                   "below the displacement height (with wind_height_m = 30.0 from "
+                                   "s.toml): got '40.0', expected wind_height_m 30 m above the "
+                                   "displacement height d = 30.9 m"),
     "override_slope_95": ("[sites.alpha]\nterrain_slope_deg = 95\n",
                           "line 4, column 'sites.alpha.terrain_slope_deg': terrain slope outside "
                           "0-90 degrees: got '95'"),

@@ -21,6 +21,7 @@ from pathlib import Path
 from .constants import MAX_FIXED_VD_CM_S
 from .errors import ScenarioError, missing_file_hint, suggest
 # the checks of the parts of a file (defined here before)
+from .scenario_check import missing_input_expected
 from .scenario_check import (_END_OF_DAY, _GEOMETRY_KEYS, _GRID_FILES,  # noqa: F401
                              _check_grid, _check_names, _check_option_section,
                              _check_period, _check_plain_section, _check_site_overrides,
@@ -232,9 +233,14 @@ def validate(raw: dict, path=None, text: str = "", require_inputs: bool = True,
         if not p.exists() and require_inputs:
             raise ScenarioError("input file does not exist", file=path,
                                 line=_line_of(lines, "inputs", role), column=f"inputs.{role}",
-                                value=sc.data["inputs"][role], expected="a path relative to the "
-                                "scenario file, or absolute"
-                                + missing_file_hint(p, sc.data["inputs"][role]))
+                                value=sc.data["inputs"][role],
+                                expected=missing_input_expected(sc.data["inputs"][role],
+                                                                sc.base))
+        if p.is_dir() and require_inputs and role != "met":    # met: a zarr store may be
+            raise ScenarioError("a folder, not a file", file=path,
+                                line=_line_of(lines, "inputs", role), column=f"inputs.{role}",
+                                value=sc.data["inputs"][role],
+                                expected=f"the path of the {role} file in the folder {p}")
     _check_period(data["period"], path, lines)
     if require_inputs or (sc.input_path("sites") is not None and sc.input_path("sites").exists()):
         sc.notes = _check_site_overrides(sc, path, lines)

@@ -163,6 +163,43 @@ _GRID_FILES = {"met": "hourly met on (time, y, x)",
                "land_use": "land-use grid of our classes"}
 
 
+def _date_hint(v) -> str:
+    """The readings of a `[period]` date written day/month or month/day, the files'
+    hint (before, the scenario's error gave none)."""
+    from .io.tabletimes import day_month_readings
+    both = day_month_readings(str(v))
+    return f" (a date in day/month or month/day order? write year-month-day: {both})" \
+        if both else ""
+
+
+def missing_input_expected(value, base: Path, cwd: Path | None = None) -> str:
+    """What a scenario's input path that does not exist should be: where it was looked
+    for (`base`, the scenario file's folder) and a slip that explains it: a path that
+    exists from the current folder `cwd` (written relative to where the command was
+    typed), backslashes between folders, a file of its name in the scenario's folder.
+
+    Before, "expected a path relative to the scenario file, or absolute" only."""
+    cwd = Path.cwd() if cwd is None else cwd
+    text = str(value)
+    looked = (base / text).resolve() if not Path(text).is_absolute() else Path(text)
+    # the nearest name beside it, or that its folder is not there, and where it was
+    # looked for when the path is relative (errors.missing_file_hint)
+    out = "a path relative to the scenario file, or absolute" + missing_file_hint(looked, text)
+    if Path(text).is_absolute():
+        return out
+    here = (cwd / text).resolve()
+    if here.exists() and here != looked:
+        import os
+        out += (f"; {text!r} exists from the current folder ({here}), but paths are read "
+                f"from the scenario file's folder: write {os.path.relpath(here, base)!r}")
+    elif "\\" in text and (base / text.replace("\\", "/")).exists():
+        out += f"; write '/' between folders: {text.replace(chr(92), '/')!r}"
+    elif (base / Path(text).name).exists() and Path(text).name != text:
+        out += (f"; a file {Path(text).name!r} is in the scenario file's folder: "
+                f"write {Path(text).name!r}?")
+    return out
+
+
 def _check_grid(grid: dict, given, path, lines):
     """A [grid] section names all three files, and each exists (paths relative to the
     scenario file)."""
@@ -181,8 +218,8 @@ def _check_grid(grid: dict, given, path, lines):
         if not full.exists():
             raise ScenarioError("input file does not exist", file=path,
                                 line=_line_of(lines, "grid", key), column=f"grid.{key}",
-                                value=grid[key], expected="a path relative to the scenario "
-                                "file, or absolute" + missing_file_hint(full, grid[key]))
+                                value=grid[key],
+                                expected=missing_input_expected(grid[key], base))
 
 
 #: A time of 24:00 (the end of the day), as the readers of the sample files take it.
@@ -238,7 +275,7 @@ def _check_period(period: dict, path, lines):
             raise ScenarioError("not a date", file=path, line=_line_of(lines, "period", key),
                                 column=f"period.{key}", value=v,
                                 expected="an ISO 8601 date or time in UTC without offset, "
-                                "e.g. 2020-01-01 or 2020-01-01T00:00") from None
+                                "e.g. 2020-01-01 or 2020-01-01T00:00" + _date_hint(v)) from None
         times[key] = t
     if len(times) == 2 and not times["end"] > times["start"]:
         raise ScenarioError("period end not after its start", file=path,

@@ -88,10 +88,16 @@ def _expected_like(value, default) -> str:
     import json
     name = _type_name(default)
     shown = (json.dumps(list(default)) if isinstance(default, (tuple, list))
-             else repr(default))
+             else json.dumps(default) if isinstance(default, bool) else repr(default))
     text = f"{'an' if name[0] in 'aeiou' else 'a'} {name} like the default {shown}"
     if name == "array" and isinstance(value, str):
         text += f" (e.g. {json.dumps([value])})"
+    if name == "boolean":         # before: "like the default False", which TOML refuses
+        text += "; write true or false, lower case, without quotes"
+        said = str(value).strip().lower()
+        if said in ("true", "yes", "on", "1", "false", "no", "off", "0"):
+            text += (f" ({json.dumps(value) if isinstance(value, str) else value} is "
+                     f"{'true' if said in ('true', 'yes', 'on', '1') else 'false'})")
     return text
 
 

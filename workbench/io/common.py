@@ -90,6 +90,15 @@ def check_intervals(tab: RawTable, start, end):
     bad = ~(end > start)
     if bad.any():
         i = int(np.flatnonzero(bad)[0])
+        if end[i] == start[i]:         # one time label copied into both columns (an
+            #                            hourly monitor's hour-ending label?); before:
+            #                            "end before start" for a period of length 0
+            raise tab.error("end equal to start (a period of length 0)", row=i,
+                            column="end", value=tab.frame["end"].iloc[i],
+                            expected=f"a time after the start {tab.frame['start'].iloc[i]} "
+                            "(one time label per row written in both columns? an "
+                            "hour-ending label 2022-01-01T01:00 is start 2022-01-01T00:00, "
+                            "end 2022-01-01T01:00)")
         raise tab.error("end before start", row=i, column="end", value=tab.frame["end"].iloc[i],
                         expected=f"a time after the start {tab.frame['start'].iloc[i]}")
 
@@ -236,28 +245,68 @@ UNIT_SPELLINGS = {
 _SCALED_UNIT = re.compile(r"^\s*(\d+(?:\.\d*)?|\.\d+)(?:\s*/\s*(\d+))?\s*([A-Za-zµμ%]\S*)\s*$")
 
 
-def scaled_unit_hint(unit) -> str:
+def scaled_unit_hint(unit, targets=None) -> str:
     """The advice for a unit written with a scale (a count of tenths of mm, ``0.1 mm``,
     ``1/10 mm``), which pint does not read as a unit; "" for any other text.
+
+    `targets` (units of the column's dimension, e.g. ``("m/s",)``) keep the advice to
+    units the column can take: a length after a number where the column holds no length
+    (``wind_speed [10 m]``, ``temperature [2 m]``), or a length of 1 m or more
+    (``gauge_depth [10 m]``, a metre or more), is a measurement height written in the header, not a count
+    of tenths: the advice says so (before, "multiply the values by 10 and write 'm'" for
+    a wind speed).
 
     >>> scaled_unit_hint("1/10 mm")
     "; a scaled unit: multiply the values by 0.1 and write 'mm'"
     >>> scaled_unit_hint("mm")
     ''
+    >>> scaled_unit_hint("10 m", ("m/s",))[:48]
+    "; '10 m' is a height, not a unit (the measuremen"
     """
     m = _SCALED_UNIT.match(str(unit))
     if not m:
         return ""
     k = float(m.group(1)) / (float(m.group(2)) if m.group(2) else 1.0)
-    return f"; a scaled unit: multiply the values by {k:g} and write {m.group(3)!r}"
+    base = m.group(3)
+    if targets is not None:
+        dim = _dimension(base)
+        fits = dim is not None and (dim == "eq" or any(
+            dim == _dimension(t) for t in targets))
+        if dim == _dimension("m") and (not fits or _metres(k, base) >= 1):
+            return (f"; {str(unit).strip()!r} is a height, not a unit (the measurement "
+                    "height written in the header?): write the column's unit alone in "
+                    "the brackets; the heights go in sites.toml (wind_height_m, "
+                    "sampler_height_m)")
+        if not fits:
+            return ""
+    return f"; a scaled unit: multiply the values by {k:g} and write {base!r}"
 
 
-def unit_error(tab: RawTable, name: str, exc: Exception, expected: str) -> InputError:
+def _metres(k, base) -> float:
+    """The length `k` `base` in m (`base` a length unit pint reads)."""
+    from ..units import convert_plain
+    return float(convert_plain(k, base, "m"))
+
+
+def _dimension(text):
+    """pint's dimensionality of a unit text, "eq" for an equivalent unit (ueq/L), None
+    for an unknown unit."""
+    from ..units import parse_unit
+    try:
+        unit, is_eq = parse_unit(text)
+    except ValueError:
+        return None
+    return "eq" if is_eq else unit.dimensionality
+
+
+def unit_error(tab: RawTable, name: str, exc: Exception, expected: str,
+               targets=None) -> InputError:
+    """The located error of a header's unit; `targets` as in :func:`scaled_unit_hint`."""
     unit = tab.headers[name].unit
     hint = UNIT_SPELLINGS.get("".join(str(unit).split()).lower())
     return InputError(f"unknown or dimensionally wrong unit ({exc})"
-                      + (f"; write {hint}" if hint else scaled_unit_hint(unit)), file=tab.path,
-                      line=tab.header_line, column=tab.raw_headers[name],
+                      + (f"; write {hint}" if hint else scaled_unit_hint(unit, targets)),
+                      file=tab.path, line=tab.header_line, column=tab.raw_headers[name],
                       value=unit, expected=expected)
 
 

@@ -118,6 +118,11 @@ def _bad_value(key, v):
         return ("not finite",
                 "a finite number >= 0 in eq/ha/yr (leave the key out where there is none)")
     if v < 0:
+        from .plausible import SENTINELS      # the data files' missing-value codes
+        if v in SENTINELS:             # a sheet's code for "no value", exported as is
+            return (f"negative value, {v:g} looks like a missing-value code",
+                    "a number >= 0 in eq/ha/yr; where there is no load, leave the key out "
+                    "(a receptor without its own value then takes the site's)")
         return "negative value", "a number >= 0 in eq/ha/yr"
     return None
 
@@ -267,14 +272,41 @@ def check_critical_loads(t, surfaces, err, table_err, notes, site_id):
     return cl, per_receptor
 
 
+def same_unit_as(unit) -> str | None:
+    """The unit of :data:`CRITICAL_LOAD_UNITS` that another spelling names (exponents,
+    ``a`` or ``year`` for the year, molc for eq, the element after kg), or None.
+
+    >>> same_unit_as("eq ha-1 yr-1"), same_unit_as("molc/ha/a"), same_unit_as("kg N/ha/yr")
+    ('eq/ha/yr', 'eq/ha/yr', 'kg/ha/yr')
+    >>> same_unit_as("mg/L") is None
+    True
+    """
+    if not isinstance(unit, str):
+        return None
+    t = unit.strip().lower()
+    t = re.sub(r"\bmol[\s_]?c\b|\bmolc\b", "eq", t)
+    t = re.sub(r"\bkg\s*[ns]\b", "kg", t)
+    t = re.sub(r"\s*\b(ha|m2|yr|a|year)\s*-1\b", r"/\1", t)
+    t = re.sub(r"m-2\b", "/m2", t)
+    t = re.sub(r"[\s.·*]+", "", t)
+    t = re.sub(r"/(a|year|y)$", "/yr", t)
+    t = re.sub(r"/+", "/", t)
+    return t if t in CRITICAL_LOAD_UNITS else None
+
+
 def _table_unit(unit, fail):
     """The declared unit of a critical-load table, or `fail` (problem, value, expected)."""
     if unit in CRITICAL_LOAD_UNITS:
         return unit
+    same = same_unit_as(unit)       # before: "did you mean 'kg/ha/yr'?" for molc/ha/yr
+    element = isinstance(unit, str) and re.search(r"\bkg\s*[NS]\b", unit, re.I)
+    hint = (f" (did you mean {same!r}? it reads kg S for cl_max_s and kg N for the "
+            "others, one element per key)" if same and element else
+            f" (did you mean {same!r}? the same unit written another way)" if same else
+            suggest(unit, CRITICAL_LOAD_UNITS) if isinstance(unit, str) else "")
     return _raise(fail("unknown unit of critical loads", unit,
                        "one of " + ", ".join(f'"{u}"' for u in CRITICAL_LOAD_UNITS)
-                       + " (kg of S for cl_max_s, of N for the others)"
-                       + (suggest(unit, CRITICAL_LOAD_UNITS) if isinstance(unit, str) else "")))
+                       + " (kg of S for cl_max_s, of N for the others)" + hint))
 
 
 def _raise(exc):

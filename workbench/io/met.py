@@ -41,7 +41,8 @@ def _convert(tab: RawTable, name: str, target: str):
     try:
         return convert_met(raw, unit, name, target), unit
     except ValueError as exc:
-        raise unit_error(tab, name, exc, f"a unit convertible to {target}") from None
+        raise unit_error(tab, name, exc, f"a unit convertible to {target}",
+                         (target,)) from None
 
 
 def read_met(path, catalogue):

@@ -205,7 +205,8 @@ def _concentrations(tab, cols, kinds_allowed, ledger_parts, n, groups=None, zero
             amount, kind = _to_amount_by_unit(tab, name, raw, sp)
         except ValueError as exc:
             raise unit_error(tab, name, exc, "a concentration unit such as mg/L, umol/L, "
-                             "ueq/L (precipitation) or ug/m3, ppb (air)") from None
+                             "ueq/L (precipitation) or ug/m3, ppb (air)",
+                             ("mg/L", "umol/L", "ppb")) from None
         if kind not in kinds_allowed:
             raise unit_error(tab, name, ValueError(f"a {kind.replace('_', ' ')}"),
                              " or ".join(k.replace("_", " ") for k in kinds_allowed))

@@ -94,7 +94,8 @@ def read_precipitation(path, catalogue, flag_map=None):
         try:
             v = convert_plain(raw, unit, "mm")
         except ValueError as exc:
-            raise unit_error(tab, name, exc, "a depth unit such as mm") from None
+            raise unit_error(tab, name, exc, "a depth unit such as mm",
+                             ("mm",)) from None
         v = _mask_sentinels(tab, name, raw, v, parts)
         if (v < 0).any():
             i = int(np.flatnonzero(v < 0)[0])
@@ -112,11 +113,13 @@ def read_precipitation(path, catalogue, flag_map=None):
         try:
             vol = convert_plain(raw_vol, u_vol, "m**3")
         except ValueError as exc:
-            raise unit_error(tab, "sample_volume", exc, "a volume unit such as mL") from None
+            raise unit_error(tab, "sample_volume", exc, "a volume unit such as mL",
+                             ("mL",)) from None
         try:
             area = convert_plain(raw_area, u_area, "m**2")
         except ValueError as exc:
-            raise unit_error(tab, "collector_area", exc, "an area unit such as cm2") from None
+            raise unit_error(tab, "collector_area", exc, "an area unit such as cm2",
+                             ("cm**2",)) from None
         vol = _mask_sentinels(tab, "sample_volume", raw_vol, vol, parts)
         area = _mask_sentinels(tab, "collector_area", raw_area, area, parts)
         for name, v in (("sample_volume", vol), ("collector_area", area)):
@@ -149,7 +152,8 @@ def read_precipitation(path, catalogue, flag_map=None):
         try:
             cond = convert_plain(raw_cond, u_cond, "uS/cm")
         except ValueError as exc:
-            raise unit_error(tab, "conductivity", exc, "a conductivity unit such as uS/cm") from None
+            raise unit_error(tab, "conductivity", exc, "a conductivity unit such as uS/cm",
+                             ("uS/cm",)) from None
         cond = _mask_sentinels(tab, "conductivity", raw_cond, cond, parts)
         if (cond < 0).any():
             i = int(np.flatnonzero(cond < 0)[0])

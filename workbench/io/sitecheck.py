@@ -31,6 +31,30 @@ def _type_check(t, err):
 
 
 
+#: A leaf-area index above the first bound is doubtful (a hint), above the second
+#: impossible for a canopy (an error) [m2 m-2]: closed stands commonly reach 3-8 and
+#: the densest conifer stands about 10-15 (from memory: the global compilation of
+#: Asner, Scurlock and Hicke 2003, Global Ecol. Biogeogr. 12, 191); a satellite
+#: product's LAI stored as integers x10 (0-100 for 0-10), or a percent cover typed
+#: as LAI, lands far above them.
+LAI_DOUBTFUL, LAI_MAX = 12.0, 20.0
+
+
+def _lai_scale(t, key, top, err, notes, label):
+    """The error of a leaf-area index above :data:`LAI_MAX`, the hint of one above
+    :data:`LAI_DOUBTFUL` (`top` the largest value of `key`)."""
+    if top > LAI_MAX:
+        raise err("leaf-area index larger than any canopy's", key, t[key],
+                  "m2 of leaf per m2 of ground, at most about 15 (a closed stand 3-8); "
+                  "values scaled by 10 (as some satellite products store them: "
+                  f"{top:g} is {top / 10:g}) or by 100 (a percent: {top / 100:g})? write "
+                  "the index itself")
+    if top > LAI_DOUBTFUL:
+        notes.append(f"{label}: {key} reaches {top:g}, above {LAI_DOUBTFUL:g} m2 m-2, "
+                     "reached only by the densest conifer stands: a value stored x10 "
+                     f"({top / 10:g})? (used as written)")
+
+
 def check_site(t: dict, err, notes: list, label: str, table_err=None,
                change_err=None) -> Site:
     """Validate one site's keys (a ``[[site]]`` table, or one with scenario overrides).
@@ -112,11 +136,17 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None,
         lai = tuple(float(x) for x in v)
         if "lai_min" in t or "lai_max" in t:
             raise err("both lai and lai_min/lai_max given", "lai", expected="one of them")
+        _lai_scale(t, "lai", max(lai), err, notes, label)
     elif "lai_min" in t or "lai_max" in t:
         if not ("lai_min" in t and "lai_max" in t):
             raise err("lai_min and lai_max must come together", "lai_min" if "lai_min" in t else "lai_max")
-        if not 0 <= t["lai_min"] <= t["lai_max"]:
-            raise err("lai_min above lai_max", "lai_min", t["lai_min"], "0 <= lai_min <= lai_max")
+        if t["lai_min"] < 0:
+            raise err("negative leaf-area index", "lai_min", t["lai_min"],
+                      "0 <= lai_min <= lai_max")
+        if not t["lai_min"] <= t["lai_max"]:
+            raise err("lai_min above lai_max", "lai_min", t["lai_min"], "0 <= lai_min <= lai_max"
+                      f" (swapped? lai_min = {t['lai_max']:g} and lai_max = {t['lai_min']:g})")
+        _lai_scale(t, "lai_max", t["lai_max"], err, notes, label)
         lai = _monthly_lai(float(t["lai_min"]), float(t["lai_max"]), t["latitude"])
     cl_notes = notes             # without table_err: the scenario's re-check of a site
     if table_err is None:        # read from the catalogue, whose hints are noted already
@@ -132,9 +162,15 @@ def check_site(t: dict, err, notes: list, label: str, table_err=None,
         if key not in PARTICLE_SPECIES:
             raise err("unknown particle species in coarse_fraction", "coarse_fraction", key,
                       "one of " + ", ".join(PARTICLE_SPECIES) + suggest(key, PARTICLE_SPECIES))
-        if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 <= v <= 1:
+        if isinstance(v, bool) or not isinstance(v, (int, float)):
+            raise err("wrong type in coarse_fraction", "coarse_fraction",
+                      f"{key} = {v!r}" if isinstance(v, str) else f"{key} = {v}",
+                      "a number from 0 to 1 without quotes (e.g. {" + key + " = 0.3})")
+        if not 0 <= v <= 1:
             raise err("bad coarse fraction", "coarse_fraction", f"{key} = {v}",
-                      "a mass fraction from 0 to 1")
+                      "a mass fraction from 0 to 1"
+                      + (f" (a percent? {v:g} % is {key} = {v / 100:g})"
+                         if 2 <= v <= 100 else ""))
     transfer = dict(t.get("ustar_transfer", {}))
     own = (t["land_use"],) + tuple(receptors)
     for key, v in transfer.items():

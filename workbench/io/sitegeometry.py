@@ -25,6 +25,11 @@ TALL_MAST_M = 150.0
 #: A terrain slope steeper than this is doubtful (a percent grade?) [degree]
 #: (common practice).
 STEEP_SLOPE_DEG = 45.0
+#: Canopies of the short-vegetation classes taller than this are no longer of the class
+#: [m] (our choice above the tallest of each, from memory: tall tropical grasses about
+#: 3 m, maize and sugar cane 3-5 m, reed beds about 4 m, tall shrubland about 6 m): a
+#: height in cm (12 for 0.12 m) lands above them.
+SHORT_CANOPY_MAX_M = {"grass": 3.0, "crops": 6.0, "moorland": 8.0, "wetland": 6.0}
 VEGETATED = ("conifer_forest", "deciduous_forest", "mixed_forest", "grass", "crops",
              "moorland", "wetland")
 
@@ -50,6 +55,12 @@ def _geometry(t, err, notes, label):
     if h > MAX_CANOPY_M:
         raise err("canopy taller than any tree", "canopy_height_m", h,
                   f"a height below {MAX_CANOPY_M:g} m (a height in feet or cm?)")
+    top = SHORT_CANOPY_MAX_M.get(lu)
+    if top is not None and h > top:
+        raise err(f"canopy too tall for the class {lu!r}", "canopy_height_m", h,
+                  f"a height in m up to about {top:g} m for {lu} (default "
+                  f"{LAND_USE[lu][1]:g} m): a height in cm ({h:g} cm is {h / 100:g} m)? "
+                  "or a taller stand of another class (a forest, conifer_forest ...)?")
     if h == 0 and lu in FOREST_CLASSES:
         raise err("canopy height 0 for a forest", "canopy_height_m", h,
                   f"the mean tree height in m (default for {lu}: {LAND_USE[lu][1]:g} m)")

@@ -58,11 +58,63 @@ def read_toml(path, error=InputError, missing="file not found", expected="an exi
         return tomllib.loads(text), text
     except tomllib.TOMLDecodeError as exc:
         m = re.search(r"line (\d+)", str(exc))
-        raise error(f"invalid TOML ({exc})", file=path,
-                    line=int(m.group(1)) if m else None) from None
+        line = int(m.group(1)) if m else None
+        raise error(f"invalid TOML ({exc}){_value_hint(text, line)}{_twice_hint(exc)}",
+                    file=path, line=line) from None
     except RecursionError:
         raise error("TOML nested too deeply to read", file=path,
                     expected="tables and arrays nested a few levels at most") from None
+
+
+#: A value TOML cannot read that a spreadsheet or another language writes: a boolean
+#: in capitals or as yes/no (``True``, ``FALSE``, ``yes``), and a bare word.
+_BARE_BOOL = re.compile(r"=\s*(True|False|TRUE|FALSE|[Yy]es|[Nn]o|YES|NO)\s*(#.*)?$")
+_BARE_WORD = re.compile(r"=\s*([A-Za-z_][^\s\"'#\[\]{}]*)\s*(#.*)?$")
+_DECIMAL_COMMA = re.compile(r"=\s*([-+]?\d+),(\d+)\s*(#.*)?$")
+_BARE_DATE = re.compile(r"=\s*(\d{1,4}[/.]\d{1,2}[/.]\d{1,4}[^#]*?)\s*(#.*)?$")
+
+
+def _twice_hint(exc) -> str:
+    """What a key or table given twice (a row pasted twice) asks for; "" otherwise."""
+    if "Cannot overwrite a value" in str(exc):
+        return ("; a key given twice in one table (a line pasted twice?): keep one, the "
+                "value you mean")
+    if re.search(r"Cannot declare .* twice", str(exc)):
+        return ("; a table given twice (a block pasted twice?): keep one table with "
+                "each key once ([[site]] starts each new site)")
+    return ""
+
+
+def _value_hint(text, line) -> str:
+    """What to write for a value of `line` that TOML refuses ("" when none is seen):
+    ``compare_schemes = True`` (TOML's booleans are lower case), a bare word
+    (``resolution = year``), a date with slashes or dots (``start = 01/01/2021``) and a
+    decimal comma (``cl_nut_n = 714,5``).
+
+    >>> _value_hint("a = True", 1)
+    "; write true or false, lower case (TOML's booleans): got True"
+    >>> _value_hint("cl_nut_n = 714,5", 1)
+    '; a decimal comma? write 714.5'
+    >>> _value_hint('resolution = year', 1)
+    '; write text in quotes: resolution = "year"'
+    """
+    if not line:
+        return ""
+    lines = text.splitlines()
+    if not 0 < line <= len(lines):
+        return ""
+    s = lines[line - 1]
+    m = _BARE_BOOL.search(s)
+    if m:
+        return f"; write true or false, lower case (TOML's booleans): got {m.group(1)}"
+    m = _DECIMAL_COMMA.search(s)
+    if m:
+        return f"; a decimal comma? write {m.group(1)}.{m.group(2)}"
+    m = _BARE_WORD.search(s) or _BARE_DATE.search(s)
+    if m and m.group(1).lower() not in ("true", "false", "inf", "nan"):
+        key = s[:s.index("=")].strip()
+        return f'; write text in quotes: {key} = "{m.group(1)}"'
+    return ""
 
 
 _HEADER = re.compile(r"^\s*\[\[?\s*([^\[\]]+?)\s*\]\]?\s*(?:#.*)?$")
