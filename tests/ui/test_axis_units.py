@@ -88,3 +88,13 @@ def test_sensitivity_curves_axes():
         fig = figures.sensitivity_curves(sweep, "x", 0.1, unit)
         assert [_check(fig.layout[k].title.text, unit) for k in ("yaxis", "yaxis2")] == [
             "S deposition", "N deposition"]
+
+
+def test_gas_scheme_table_headings_have_units_in_brackets(explorer):
+    """The table under the gas-scheme figures: "percent (%)" stood apart from every
+    other heading's "[unit]", and "difference" had no unit of its own."""
+    explorer.unit_w.value = "eq/ha/yr"
+    explorer.schemes.draw()
+    heads = re.findall(r"<th>(.*?)</th>", explorer.schemes.table_w.value)
+    assert "difference [eq/ha/yr]" in heads and "difference [%]" in heads, heads
+    assert not any("(%)" in h for h in heads), heads
