@@ -474,14 +474,15 @@ NETWORK_PLOTS = """() => [...document.querySelectorAll('.wb-network .js-plotly-p
 
 
 #: JavaScript: the network overview's trend table, its box and its last row (site, and
-#: whether the row lies whole inside the box), and the scroll note above it if any.
+#: whether the row lies whole inside the box), and the words of the toggle under a table
+#: of more rows than are shown before it is opened, if any.
 TREND_TABLE = """() => { const box = [...document.querySelectorAll('.wb-network div')].find(
     d => d.querySelector(':scope > table') && d.parentElement.textContent.includes(
       'Trends of the annual totals'));
   if (!box) return null;
   const rows = [...box.querySelectorAll('tbody tr')], last = rows[rows.length - 1];
   const b = box.getBoundingClientRect(), r = last.getBoundingClientRect();
-  const note = box.parentElement.querySelector('.wb-scroll-note');
+  const note = box.parentElement.querySelector('.wb-rows-toggle summary');
   return {rows: rows.length, last_site: last.cells[0].textContent.trim(),
           sites: [...new Set(rows.map(x => x.cells[0].textContent.trim()))],
           last_whole: r.top >= b.top - 1 && r.bottom <= b.bottom + 1,
@@ -508,15 +509,13 @@ def test_network_overview_of_the_whole_demo_draws_every_plot(lab, token, page, t
     assert titles[1].startswith("S total, whole span") and titles[2].startswith("N total"), plots
     # every plot drew each of its traces (the empty ones had none and 360 px)
     assert all(p["data"] > 0 and p["drawn"] == p["data"] for p in plots), plots
-    # the trend table: its last site's row whole in view, or a note that it scrolls
-    # (a 320 px box cut the demo's last visible row mid-sentence and hid the last site
-    # behind a scroll no scrollbar showed)
+    # the trend table: its last site's row whole in view (a 320 px box cut the demo's
+    # last visible row mid-sentence and hid the last site behind a scroll no scrollbar
+    # showed); nothing scrolls up or down, and the demo's rows need no toggle
     trend = page.evaluate(TREND_TABLE)
     assert trend and len(trend["sites"]) == 4, trend
     assert trend["last_site"] == trend["sites"][-1] == "farm", trend
-    said = trend["scrolls"] and "scroll for more" in (trend["note"] or "")
-    assert trend["last_whole"] or said, trend
-    assert not trend["scrolls"] or trend["note"], trend
+    assert trend["last_whole"] and not trend["scrolls"] and trend["note"] is None, trend
     _no_javascript_errors(page)
     _close_sessions(lab, token)
 

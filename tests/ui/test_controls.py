@@ -56,7 +56,7 @@ def test_refresh_sends_only_what_changed_and_matches_a_fresh_figure(result):
     refresh(w, figures.budget_bars_spec(result.years, "ridge", "conifer_forest", None, "eq/ha/yr"))
     fresh = figures.budget_bars(result.years, "ridge", "conifer_forest", None, "eq/ha/yr")
     assert _values(w) == _values(fresh)
-    assert w.layout.yaxis.title.text == fresh.layout.yaxis.title.text == "eq ha-1 yr-1"
+    assert w.layout.yaxis.title.text == fresh.layout.yaxis.title.text == "deposition [eq ha-1 yr-1]"
 
 
 def test_refresh_replaces_traces_of_another_kind_and_keeps_shapes_in_step():

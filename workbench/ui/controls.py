@@ -21,7 +21,7 @@ from .controls_figure import (STATIC_LAYOUT, _as_spec, _equal, _flatten,  # noqa
 from .controls_progress import (Progress, SavedText, open_with_progress,  # noqa: F401
                                 short_errors)
 # tables and the caution box (defined here before)
-from .controls_table import (TABLE_CSS, TABLE_HEIGHT, TABLE_ROWS_WHOLE,  # noqa: F401
+from .controls_table import (TABLE_CSS, TABLE_ROWS_WHOLE,  # noqa: F401
                              WIDE_COLUMN, caution_box, table_html, table_number)
 # the controls (defined here before)
 from .controls_widgets import (CONTROL_WIDTH, DEFAULT_LABEL_CHARS,  # noqa: F401

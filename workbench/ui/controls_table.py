@@ -14,16 +14,14 @@ from ..budget import OMISSIONS
 from ..report import CAUTION
 
 
-#: Largest height of a table before it scrolls [CSS]: only a table of more rows than
-#: :data:`TABLE_ROWS_WHOLE`, which then says so above its box.
-TABLE_HEIGHT = "320px"
-
-#: Most rows a table shows whole, in a box as tall as its rows (no height limit).  The
-#: trend table of the four-site demo network (rows of up to ~180 characters wrapped in a
-#: 16em column) was cut by the 320 px box in the middle of a row's sentence, its last
-#: site only reachable by a scroll that no scrollbar showed (headless chromium).  At the
-#: HTML widget's 28 px line height 13 one-line rows and a heading pass 320 px, so a
-#: table of more rows scrolls in any case.
+#: Most rows a table shows before a reader asks for the rest: a longer table shows its
+#: first rows whole and a toggle under them (``<details>``) that shows every row, also
+#: whole.  Tables of more rows stood in a 320 px scroll box; a scroll came to rest with
+#: a row's top at the box's top, but the box's foot cut the row there in two (35 rows,
+#: headless chromium), as it cut the trend table of the four-site demo network (rows of
+#: up to ~180 characters wrapped in a 16em column) mid-sentence before that table was
+#: shown whole.  A box of whole rows cannot be had from a fixed height: rows wrap to
+#: heights the HTML does not know.
 TABLE_ROWS_WHOLE = 12
 
 
@@ -50,8 +48,10 @@ WIDE_COLUMN = "16em"
 
 
 def table_html(frame: pd.DataFrame, empty="none", wide=(), fill=False) -> str:
-    """A scrolling HTML table of a DataFrame (text escaped; headings over their columns,
-    left-aligned like the cells; numbers by :func:`table_number`).
+    """An HTML table of a DataFrame (text escaped; headings over their columns,
+    left-aligned like the cells; numbers by :func:`table_number`): every row whole, the
+    rows past :data:`TABLE_ROWS_WHOLE` shown when the reader opens the toggle under
+    the first ones.
 
     Parameters
     ----------
@@ -95,17 +95,22 @@ def table_html(frame: pd.DataFrame, empty="none", wide=(), fill=False) -> str:
         # as tall as its rows: every row whole, nothing behind a scroll (sideways only)
         return (f"<div style='max-width:100%;{size}overflow:auto;"
                 f"font-size:85%'>{body}</div>")
-    # more rows than fit: said above the box (no scrollbar shows in some browsers), and
-    # a scroll comes to rest with a row's top at the box's top, never a slice of a row
-    # there (CSS Scroll Snap 1: scroll-snap-type, scroll-snap-align).  Headings kept in
-    # view (sticky) hid a slice of the row under them at rest: a heading's height is
-    # not known here to pad the snap by.
-    note = (f"<p class='wb-scroll-note' style='margin:.2em 0'><i>{n} rows; scroll for "
-            "more</i></p>")
-    snap = ("<style>.wb-scroll-box {scroll-snap-type: y mandatory;} "
-            ".wb-scroll-box tr {scroll-snap-align: start;}</style>")
-    return (f"{note}<div class='wb-scroll-box' style='max-height:{TABLE_HEIGHT};"
-            f"max-width:100%;{size}overflow:auto;font-size:85%'>{snap}{body}</div>")
+    # more rows: the first TABLE_ROWS_WHOLE, and a toggle under them showing every row;
+    # whole rows in both states (no height limit anywhere, nothing cut).  The rows past
+    # the first are hidden by a rule of this box while its toggle is closed (CSS
+    # Selectors 4 :has; a browser without it shows every row, whole).
+    more = n - TABLE_ROWS_WHOLE
+    rule = ("<style>.wb-rows-box:not(:has(> details[open])) > div > table > tbody > "
+            f"tr:nth-child(n+{TABLE_ROWS_WHOLE + 1}) {{display: none;}} "
+            ".wb-rows-box > details[open] .wb-rows-closed, "
+            ".wb-rows-box > details:not([open]) .wb-rows-open {display: none;}</style>")
+    toggle = ("<details class='wb-rows-toggle' style='font-size:85%;margin:.2em 0'>"
+              f"<summary><i><span class='wb-rows-closed'>first {TABLE_ROWS_WHOLE} of {n} "
+              f"rows shown; open for the other {more}</span><span class='wb-rows-open'>"
+              f"all {n} rows shown; close for the first {TABLE_ROWS_WHOLE}</span></i>"
+              "</summary></details>")
+    return (f"<div class='wb-rows-box'>{rule}<div style='max-width:100%;{size}"
+            f"overflow:auto;font-size:85%'>{body}</div>{toggle}</div>")
 
 
 def caution_box() -> widgets.HTML:

@@ -17,8 +17,8 @@ from plotly.subplots import make_subplots
 from .figure_period import period_ticks, span_label, with_period
 from .palette import (COMPONENT_COLOURS, ELEMENT_DASH, OKABE_ITO, PATHWAY_COLOURS,
                       STATUS_OPACITY, STATUS_PATTERN, TEMPLATE)
-from .summaries import (axis_text, component_rates, component_reason, monthly_amounts,
-                        total_rates)
+from .summaries import (axis_text, axis_title, component_rates, component_reason,
+                        monthly_amounts, total_rates)
 
 
 #: Order of the elements side by side.
@@ -133,7 +133,7 @@ def budget_bars_spec(ds, site, receptor, period=None, unit="kg/ha/yr", width=Non
     room = panel_px(width or NARROWEST_PX)
     layout = {"barmode": "stack", "title": {"text": with_period(f"Budget · {site} · {receptor}",
                                                                   span_label(periods))},
-              "yaxis": {"title": {"text": axis_text(unit)}, "anchor": "x"},
+              "yaxis": {"title": {"text": axis_title("deposition", unit)}, "anchor": "x"},
               "legend": {"title": {"text": "pathway and species"}, "groupclick": "toggleitem"},
               "annotations": [legend_note(traces, symbols, why)]}
     for el, dom in zip(ELEMENTS, ((0, 0.5 - BUDGET_PANEL_GAP / 2), (0.5 + BUDGET_PANEL_GAP / 2, 1))):
@@ -331,7 +331,8 @@ def monthly_fluxes_spec(ds_month, site, receptor, unit="kg/ha/yr") -> dict:
                                   f"{axis_text(unit, True, el)}<br>status "
                                   "%{customdata[0]}%{customdata[1]}<extra></extra>"),
                 "xaxis": xname.replace("axis", ""), "yaxis": yname.replace("axis", "")})
-        layout[yname].update({"title": {"text": axis_text(unit, True, el)}, "rangemode": "tozero"})
+        title = axis_title(f"{el} deposition", unit, True, el, wrap=True)
+        layout[yname].update({"title": {"text": title}, "rangemode": "tozero"})
     layout[axes[1][0]]["title"] = {"text": "month (UTC)"}
     years = t["start"].dt.year.astype(str) if len(t) else []
     layout.update({"title": {"text": with_period(f"Monthly deposition · {site} · {receptor}",

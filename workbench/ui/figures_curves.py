@@ -14,7 +14,7 @@ from plotly.subplots import make_subplots
 from .figure_period import fit_title
 from .figures_budget import ELEMENTS, HEIGHT, PANEL_GAP, wrap_text
 from .palette import OKABE_ITO, PATHWAY_COLOURS, TEMPLATE
-from .summaries import axis_text
+from .summaries import axis_text, axis_title
 
 
 #: Width of a baseline line [px]: the template's shape default is 0 (invisible).
@@ -137,7 +137,7 @@ def sensitivity_curves(table: pd.DataFrame, label: str, baseline, unit="kg/ha/yr
             x=g["x"], y=g["rate"], mode="markers", name="baseline", legendgroup="baseline",
             showlegend=col == 1, marker=dict(symbol="star", size=14, color=OKABE_ITO["black"]),
             hovertemplate="baseline %{x}: %{y:.3g}<extra></extra>"), row=1, col=col)
-        fig.update_yaxes(title_text=axis_text(unit, element=el), row=1, col=col, rangemode="tozero")
+        fig.update_yaxes(title_text=axis_title(f"{el} deposition", unit, element=el), row=1, col=col, rangemode="tozero")
         # lines enough: the margin grows to hold them (automargin)
         fig.update_xaxes(title_text=wrap_text(label, SWEEP_AXIS_CHARS), automargin=True,
                          row=1, col=col)

@@ -12,7 +12,7 @@ from plotly.subplots import make_subplots
 
 from .figures_budget import ELEMENTS, legend_height
 from .palette import ENVELOPE_FILL, OKABE_ITO, SITE_CYCLE, TEMPLATE
-from .summaries import axis_text
+from .summaries import axis_text, axis_title
 
 
 def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE, width=None):
@@ -79,7 +79,8 @@ def network_totals(table: pd.DataFrame, unit="kg/ha/yr", template=TEMPLATE, widt
                     hovertemplate=(f"{site} {el} total %{{x}}: %{{y:.3g}} "
                                    f"{axis_text(unit, element=el)}<br>%{{customdata}}"
                                    "<extra></extra>")), row=col, col=1)
-        fig.update_yaxes(title_text=axis_text(unit, element=el), row=col, col=1,
+        fig.update_yaxes(title_text=axis_title(f"{el} total", unit, element=el, wrap=True),
+                         row=col, col=1,
                          rangemode="tozero")
         fig.update_xaxes(type="category", row=col, col=1, **year_ticks(table["period"]))
     fig.update_xaxes(title_text="year", row=2, col=1)
@@ -260,7 +261,8 @@ def network_ranking_bars(ranking: pd.DataFrame, element: str, unit="kg/ha/yr",
     fig.update_layout(title=f"{element} total, whole span: ranked on equal footing<br>"
                             "<sup>partial totals apart, per missing set; flagged: ranked, "
                             "used with a caution</sup>",
-                      xaxis_title=axis_text(unit, element=element), yaxis_title="rank · site",
+                      xaxis_title=axis_title(f"{element} total", unit, element=element),
+                      yaxis_title="rank · site",
                       yaxis=dict(autorange="reversed", categoryorder="array",
                                  categoryarray=labels, tickmode="array", tickvals=labels,
                                  ticktext=labels, automargin=True),

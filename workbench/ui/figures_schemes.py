@@ -147,7 +147,7 @@ def budget_difference_spec(table: pd.DataFrame, site, receptor, period="span") -
         "barmode": "group", "height": HEIGHT,
         "title": {"text": with_period(f"Dry deposition by gas scheme · {site} · {receptor}",
                                       "whole span" if str(period) == "span" else str(period))},
-        "yaxis": {"title": {"text": "kg S or N ha-1 yr-1"}},
+        "yaxis": {"title": {"text": "dry deposition [kg S or N ha-1 yr-1]"}},
         "legend": {"title": {"text": "gas scheme"}}}}
 
 
@@ -310,7 +310,7 @@ def budget_change_spec(table: pd.DataFrame, site, receptor, unit="kg/ha/yr",
     component [unit], with the percentage of A beside each bar (``no %`` where A is 0,
     below 0 or missing, the reason in the bar's hover); `period` the years of the
     table's means, for the title (as :func:`scheme_vd_spec`)."""
-    from .summaries import axis_text
+    from .summaries import axis_text, axis_title
     a, b = _scheme_columns(table)
     rows = list(table.index)[::-1]                        # the totals on top
     t = table.loc[rows]
@@ -332,7 +332,7 @@ def budget_change_spec(table: pd.DataFrame, site, receptor, unit="kg/ha/yr",
         "height": 60 + 26 * len(rows), "showlegend": False,
         "title": {"text": with_period(f"Budget under {b} minus under {a} · {site} · "
                                       f"{receptor}", period)},
-        "xaxis": {"title": {"text": axis_text(unit)}, "zeroline": True,
+        "xaxis": {"title": {"text": axis_title(f"{b} minus {a}", unit)}, "zeroline": True,
                   "range": label_room(x)},
         "margin": {"l": 90}}}
 

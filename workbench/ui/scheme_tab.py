@@ -145,7 +145,9 @@ class SchemeTab:
                                              if left else "no gas compares the schemes."))
         self.sentence_w.value = f"<b>{html.escape(sentence)}</b>"
         shown = self.table.drop(columns="element").reset_index(names=f"[{unit}]")
-        self.table_w.value = table_html(shown.rename(columns={"percent": "percent (%)",
-                                                              "percent_note": "note"}),
-                                        fill=True)
+        # units in square brackets as every other heading ("percent (%)" stood apart,
+        # and the difference's unit was only in the first column's heading)
+        self.table_w.value = table_html(shown.rename(columns={
+            "difference": f"difference [{unit}]", "percent": "difference [%]",
+            "percent_note": "note"}), fill=True)
         self._drawn = key

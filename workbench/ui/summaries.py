@@ -23,7 +23,8 @@ from .no_effect import PARTICLES, no_effect_text  # noqa: F401  (its home before
 from .no_effect import IN_BULK_WET, NOT_MEASURED, component_reason  # noqa: F401
 # the units and the budget tables of one site (defined here before)
 from .summaries_budget import (PATHWAY_WORDS, RANKABLE, UNITS, _as_list,  # noqa: F401
-                               _nh3_not_measured, _picker, axis_text, component_rates,
+                               _nh3_not_measured, _picker, axis_text, axis_title,
+                               component_rates,
                                mean_totals, monthly_amounts, nh3_line, to_unit,
                                total_heading, total_rates)
 # the change line (defined here before)

@@ -49,6 +49,24 @@ def axis_text(unit: str, monthly: bool = False, element: str | None = None) -> s
     return text.format(el=element if element else "S / N")
 
 
+def axis_title(quantity: str, unit: str, monthly: bool = False,
+               element: str | None = None, wrap: bool = False) -> str:
+    """Axis title of a deposition axis: the quantity, its unit in square brackets
+    (:func:`axis_text`) [text].  An axis titled by its unit alone, ``kg S ha-1 yr-1``,
+    named no quantity and no unit by the brackets the other axes use.
+
+    >>> axis_title("S total", "kg/ha/yr", element="S")
+    'S total [kg S ha-1 yr-1]'
+    >>> axis_title("deposition", "eq/ha/yr", monthly=True)
+    'deposition [eq ha-1 month-1]'
+
+    `wrap` puts the unit on a line of its own (``<br>``): the y title of a panel of a
+    few hundred pixels stacked over another one (the monthly and network figures),
+    where one line ran past the panel.
+    """
+    return f"{quantity}{'<br>' if wrap else ' '}[{axis_text(unit, monthly, element)}]"
+
+
 def rate_unit(element: str, unit: str) -> str:
     """The unit of a yearly rate of `element` as a sentence says it: the element after
     an amount that is one of that element, none after an equivalent (charge).
