@@ -184,3 +184,28 @@ def test_make_grid_says_what_it_wrote_and_what_comes_next(tmp_path, capsys):
     # the command as printed runs (its arguments parse)
     args = build_parser().parse_args(command.split()[1:])
     assert args.scenario == out.resolve() / "scenario.toml"
+
+
+def test_make_grid_refuses_a_folder_not_empty_as_workbench_run_does(tmp_path, capsys):
+    """Old code: make_grid.py wrote its four files into any folder, beside (or over)
+    another run's.  Now the folder is treated as `workbench run` treats --out
+    (workbench/runfolder.py): refused with one located message unless --overwrite,
+    which replaces it whole."""
+    from workbench.grid_demo import main as make_grid
+    out = tmp_path / "maps"
+    out.mkdir()
+    (out / "budget.csv").write_text("another run's file\n")
+    assert make_grid(["--out", str(out)]) == 2
+    err = capsys.readouterr().err
+    said = " ".join(err.split())
+    assert said == (f"error: output folder {out.resolve()} is not empty: use --overwrite "
+                    "to replace it whole, or choose a new folder"), err
+    assert all(len(ln) <= WIDTH or " " not in ln.strip() for ln in err.splitlines()), err
+    assert [p.name for p in out.iterdir()] == ["budget.csv"]
+    assert (out / "budget.csv").read_text() == "another run's file\n"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["maps"]     # no leftover sibling
+    # --overwrite: the folder replaced whole, no file of the other run left
+    assert make_grid(["--out", str(out), "--overwrite"]) == 0
+    assert sorted(p.name for p in out.iterdir()) == ["air.nc", "land_use.nc", "met.nc",
+                                                      "scenario.toml"]
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["maps"]

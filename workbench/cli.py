@@ -276,10 +276,11 @@ def cmd_sensitivity(args) -> int:
     from .scenario import load_scenario
     written = write_sensitivity(load_scenario(args.scenario), args.out, args.overwrite,
                                 args.quiet)
-    from .analysis.sensitivity_design import design_lines
+    from .analysis.sensitivity_design import VARIED, design_lines
     record = json.loads(written["provenance.json"].read_text(encoding="utf-8"))
-    # runs, seed, what was held; each wrapped for an 80-column terminal
-    for line in console_lines(design_lines(record["sensitivity_design"])):
+    # runs, seed, what was held; each wrapped for an 80-column terminal, the factors
+    # varied between whole items (a range never parted from its unit or kind)
+    for line in console_lines(design_lines(record["sensitivity_design"]), lists=(VARIED,)):
         print(line)
     print("\n".join(labelled_path(f"wrote {len(written)} files into", Path(args.out).resolve(), end=":")))
     for name in written:

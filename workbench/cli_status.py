@@ -36,7 +36,7 @@ def labelled_path(label: str, path, width=None, end: str = "") -> list[str]:
     return [one] if len(one) <= width else [f"{label}{end}", f"  {path}"]
 
 
-def console_lines(lines, width=None) -> list[str]:
+def console_lines(lines, width=None, lists=()) -> list[str]:
     """Lines for the console, each wrapped to `width` characters (default
     :data:`NOTE_WIDTH`) under a hanging indent: its continuation lines start two spaces
     deeper than the line itself (``"  farm 2016-01: ..."`` goes on at four spaces).
@@ -65,6 +65,17 @@ def console_lines(lines, width=None) -> list[str]:
     ['S: 68 complete,', '  3 filled']
     >>> console_lines(["", "short"])
     ['', 'short']
+
+    A line that starts with one of `lists` (``"varied (uniform ranges): "``) goes on
+    as a list of items parted by ``"; "``: it is cut between the items only, so that a
+    value keeps its unit or kind (``0.5 to 2 (multiplier)``; an item longer than a line
+    is cut as any text):
+
+    >>> for x in console_lines(["varied: a 0.5 to 2 (multiplier); b 0.01 to 0.1 m"],
+    ...                        width=36, lists=("varied: ",)):
+    ...     print(x)
+    varied: a 0.5 to 2 (multiplier);
+      b 0.01 to 0.1 m
     """
     width = NOTE_WIDTH if width is None else width
     out = []
@@ -72,7 +83,9 @@ def console_lines(lines, width=None) -> list[str]:
         line = str(line).rstrip()
         body = line.lstrip(" ")
         indent = line[:len(line) - len(body)]
-        out.extend(_wrap(body, width, indent, indent + "  ", numbers=True) or [line])
+        head = next((h for h in lists if body.startswith(h)), None)
+        out.extend(_wrap(body, width, indent, indent + "  ", numbers=True, items=head)
+                   or [line])
     return out
 
 
@@ -110,16 +123,24 @@ def _hold_options(text: str) -> str:
     return _HEADER.sub(lambda m: m.group(0).replace(" ", "\0"), held)
 
 
-def _wrap(text: str, width: int, first: str, rest: str, numbers=False) -> list[str]:
+def _wrap(text: str, width: int, first: str, rest: str, numbers=False,
+          items=None) -> list[str]:
     """`text` wrapped by textwrap to `width` under the indents `first` and `rest`,
     at spaces only and never inside an option (:func:`_hold_options`) nor, with
-    `numbers`, between a number and the unit or word after it (:data:`_NUMBER_WORD`).
+    `numbers`, between a number and the unit or word after it (:data:`_NUMBER_WORD`),
+    nor, with `items` (the head of a list, ``"varied (uniform ranges): "``), inside an
+    item of the ``"; "``-parted list after it that fits on a continuation line.
     The held spaces are NUL, a character textwrap does not break at, put back after (a
     text that holds a NUL already is wrapped as it is)."""
     held = "\0" not in text
     body = _hold_options(text) if held else text
     if held and numbers:
         body = _NUMBER_WORD.sub("\\1\0", body)
+    if held and items and body.startswith(_hold_options(items)):
+        room = width - len(rest) - 1                     # the item and its ";"
+        head, parts = body[:len(items)], body[len(items):].split("; ")
+        body = head + "; ".join(p.replace(" ", "\0") if len(p) <= room else p
+                                for p in parts)
     lines = textwrap.wrap(body, width=width, initial_indent=first, subsequent_indent=rest,
                           break_long_words=False, break_on_hyphens=False)
     return [x.replace("\0", " ") for x in lines] if held else lines

@@ -273,12 +273,33 @@ def make_demo_grid(folder, n=N_CELLS, months=1) -> Path:
 def main(argv=None) -> int:
     """``python demo_data/make_grid.py --out DIR``: prints what it wrote, where, and the
     command that maps it (before, the scenario path alone)."""
+    import sys
+    from .cli_status import console_lines
+    from .errors import WorkbenchError
+    from .runfolder import RunFolder
     p = argparse.ArgumentParser(description="write the invented demo grid and its scenario")
     p.add_argument("--out", type=Path, required=True, help="folder for the grid files and "
-                   "their scenario.toml (created)")
+                   "their scenario.toml (created; a folder that is not empty is refused)")
+    p.add_argument("--overwrite", action="store_true",
+                   help="replace a non-empty --out folder whole (as `workbench run "
+                        "--overwrite`)")
     args = p.parse_args(argv)
-    scenario = make_demo_grid(args.out)
-    folder = scenario.parent.resolve()
+    # the output folder as `workbench run` treats it (workbench/runfolder.py): a folder
+    # that is not empty is refused unless --overwrite, the files are written into a
+    # sibling and renamed into place, so no file of another run is written over or mixed
+    # with these, and an interrupted run leaves nothing that looks like a grid
+    try:
+        with RunFolder(args.out, {}, args.overwrite) as run:
+            make_demo_grid(run.path)
+            folder = run.commit()
+    except WorkbenchError as exc:
+        print("\n".join(console_lines([f"error: {exc}"])), file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print(f"error: interrupted; nothing was written into {Path(args.out).resolve()}",
+              file=sys.stderr)
+        return 130
+    scenario = folder / "scenario.toml"
     names = [scenario.name] + [n for n in ("met.nc", "air.nc", "land_use.nc")
                                if (folder / n).is_file()]
     print(f"wrote the invented demo grid ({N_CELLS} x {N_CELLS} cells) and its scenario "

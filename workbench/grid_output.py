@@ -44,8 +44,8 @@ def _attrs(name, grid, mapping) -> dict:
     kind, _, what = name.partition("_")
     if name == "met_flagged_hours":
         a = {"units": "1", "long_name": "hours of the period whose met failed a plausibility "
-             "check of the site reader (implausible values masked; docs/data_formats.md "
-             "section 4)", "cell_methods": "time: sum"}
+             "check of the site reader (a value that cannot be right masked, a doubtful "
+             "one kept as read; docs/data_formats.md section 4)", "cell_methods": "time: sum"}
     elif name == "met_missing_hours":
         a = {"units": "1", "long_name": "hours of the period without a deposition velocity "
              "from the cell's own met (a met value the engine needs is missing or was "
@@ -181,12 +181,34 @@ def flag_notes(path: Path, grid) -> list:
         return []
     j, i = np.unravel_index(np.nanargmax(flagged), flagged.shape)
     reasons = flag_reasons(grid, int(j), int(i))
-    top = "; ".join(f"{n} h {text}" for text, n in list(reasons.items())[:3])
+    top = "; ".join(_fate(text, n) for text, n in list(reasons.items())[:3])
     cells = int(np.nansum(flagged > 0))
     return [f"{grid.paths['met'].name}: {int(total)} cell-hours in {cells} "
-            f"cell{'s' if cells != 1 else ''} failed a plausibility check (masked; counted in "
+            f"cell{'s' if cells != 1 else ''} failed a plausibility check (counted in "
             f"met_flagged_hours); of all the met hours of the cell with the most "
             f"({ydim}={ycoord[j]:g} {xdim}={xcoord[i]:g}): {top}"]
+
+
+#: What a check did to the values of a reason ending in "(kept)" or "(masked)"
+#: (:mod:`workbench.io.metchecks`), said once, before the reason.
+_FATES = {" (kept)": "kept as read (used in the maps)",
+          " (masked)": "masked (set to missing)"}
+
+
+def _fate(text: str, hours: int) -> str:
+    """``"<hours> h <what was done>: <reason>"``: the reason's trailing "(kept)" or
+    "(masked)" said as what happened to the values, once (a reason that ends in
+    neither is given as it is).
+
+    >>> _fate("pressure looks reduced to sea level, not station pressure (kept)", 3)
+    '3 h kept as read (used in the maps): pressure looks reduced to sea level, not station pressure'
+    >>> _fate("odd", 2)
+    '2 h odd'
+    """
+    for tail, fate in _FATES.items():
+        if text.endswith(tail):
+            return f"{hours} h {fate}: {text[:-len(tail)]}"
+    return f"{hours} h {text}"
 
 
 def missing_met_notes(path: Path, grid) -> list:

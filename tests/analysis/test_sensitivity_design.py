@@ -68,3 +68,38 @@ def test_the_sensitivity_command_prints_the_units(tiny, tmp_path, capsys):
     line = next(x for x in _unwrapped(out) if x.startswith("varied (uniform ranges): "))
     assert "vd_SO2 0.5 to 1.5 (multiplier)" in line
     assert "wetness_rule one of met, always_wet (equally likely)" in line
+
+
+#: Multiplier factors only (no engine factor: one engine run): on the old console the
+#: line of the factors was cut inside "gauge_catch 0.9 to 1.1 (multiplier)", its unit
+#: alone at the start of the next line.
+LINEAR = {"vd_SO2": (0.5, 1.5), "gauge_catch": (0.9, 1.1), "air_conc": (0.85, 1.15),
+          "vd_pSO4": (0.6, 1.6), "vd_HNO3": (0.7, 1.4), "precip_conc": (0.95, 1.05)}
+
+
+def test_the_console_cuts_the_factors_between_whole_items(tiny, tmp_path, capsys):
+    """Old code: the line of the factors was wrapped at any space, so a range could
+    end a line with its "(multiplier)" at the start of the next.  Now it is cut between
+    the items only (each "name low to high unit;" on one line), within 79 columns."""
+    from workbench.cli import main
+    sc, _, _, _ = tiny
+    text = sc.path.read_text()
+    head = text.index("[sensitivity.factors]")
+    rows = "\n".join(f"{k} = [{lo}, {hi}]" for k, (lo, hi) in LINEAR.items())
+    path = sc.path.parent / "scenario_linear.toml"
+    path.write_text(text[:head] + "[sensitivity.factors]\n" + rows + "\n")
+    capsys.readouterr()
+    assert main(["sensitivity", str(path), "--out", str(tmp_path / "s"), "--quiet"]) == 0
+    out = capsys.readouterr().out
+    assert not [x for x in out.splitlines() if len(x) > 79 and " " in x.strip()], out
+    lines = out.splitlines()
+    first = next(k for k, x in enumerate(lines) if x.startswith("varied (uniform ranges): "))
+    last = next(k for k in range(first + 1, len(lines)) if not lines[k].startswith("  "))
+    block = lines[first:last]                         # the line and its continuations
+    joined = " ".join(x.strip() for x in block)
+    for name, (lo, hi) in LINEAR.items():
+        item = f"{name} {lo:g} to {hi:g} (multiplier)"
+        assert item in joined, (item, out)                    # every factor said
+        assert any(item in x for x in block), (item, out)     # and on one line whole
+    # the lines start with a factor's name (or the head), never with its unit
+    assert not [x for x in block if x.strip().startswith("(")], out

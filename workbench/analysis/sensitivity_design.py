@@ -206,6 +206,11 @@ def design(options: SensitivityOptions, counts: dict, dry=None, budget=None) -> 
             "not_varied": held}
 
 
+#: The head of the line of :func:`design_lines` that lists the factors varied, each with
+#: its range (``"; "`` between them): the console wraps it between whole items.
+VARIED = "varied (uniform ranges): "
+
+
 def design_lines(d: dict) -> list:
     """The record :func:`design` as lines of text (the console's and the page's)."""
     k = len(d["factors"])
@@ -219,7 +224,7 @@ def design_lines(d: dict) -> list:
            f"tornado: 2k + 1 = {d['tornado_evaluations']} evaluations "
            f"({runs(d['tornado_engine_runs'])}), each factor at the low and high end of its "
            "range (not percentiles: a uniform range's 0 % and 100 %), the others at their base",
-           "varied (uniform ranges): " + "; ".join(f"{n} {range_words(n, f['range'])}"
+           VARIED + "; ".join(f"{n} {range_words(n, f['range'])}"
                                                    for n, f in d["factors"].items()),
            "not varied: " + "; ".join(d["not_varied"])]
     if d.get("too_few_samples"):
