@@ -33,8 +33,9 @@ import numpy as np
 #: Default bounds of a graph's cache: entries and bytes (a velocities Dataset of a
 #: site-year with three receptors is about 15-40 MB).  The bytes count each numpy
 #: buffer once, however many results hold it (until 2026-12-05 they were counted in
-#: each: 3,000 MB then held about 1,600-1,900 MB, docs/performance.md, "What the stage
-#: graph holds after a network run").
+#: each, 1.77 times the arrays held after the demo network's run: the bound was then
+#: 3,000 MB, about 1,700 MB of arrays; docs/performance.md, "What the stage graph
+#: holds after a network run").
 MAX_ENTRIES = 2048
 MAX_BYTES = 2_000_000_000
 _MISSING = object()
