@@ -267,13 +267,6 @@ def stage(name, reads=None, counts_as=None, freeze=False):
     return deco
 
 
-def _nbytes(value) -> int:
-    """Rough size of a cached value [bytes] (arrays, Datasets, DataFrames, containers);
-    a numpy buffer held in several places of the value is counted once."""
-    held = {}
-    return _sizes(value, held) + sum(n for n, _ in held.values())
-
-
 def _root(a: np.ndarray) -> np.ndarray:
     """The numpy array owning the memory of `a` (a view's base, followed)."""
     while isinstance(a.base, np.ndarray):
