@@ -19,7 +19,8 @@ block-major scratch copy of the time-chunked met alone (`grid.staged`, in this p
 block in process (`compute_grid`); ``dask``: every block as a dask task on a local cluster
 of 2 single-threaded worker processes (as ``workbench grid --workers 2``), each worker's
 idle resident set before the blocks and its peak (VmHWM) after them, and the most block
-results held on the workers at once (a scheduler plugin).  Printed: the process's peak resident set (VmHWM),
+results held on the workers at once (a scheduler plugin) and each worker's resident set
+after each task it finished, in order (a worker plugin: block to block).  Printed: the process's peak resident set (VmHWM),
 its resident set before the measured part (imports and the open grid), the difference
 ("above base"), the resident set after each block (``grid``: growth across blocks), CPU,
 and the load average, then the ratio of each size's peak above base to the first size's; ``--trace`` adds the tracemalloc peak (slower).  Report ratios of
@@ -135,6 +136,7 @@ def _on_dask(grid, args, block, out: dict, copy_only=False) -> int:
         client.run(_warm)            # imports and one tiny engine call before the base line
         base = client.run(_worker_status)
         client.register_plugin(HeldResults())
+        client.register_plugin(TaskMemory())
         on = {"client": client} if "client" in inspect.signature(g.staged).parameters else {}
         with g.staged(grid, block, **on) as staged:
             if copy_only:
@@ -155,6 +157,7 @@ def _on_dask(grid, args, block, out: dict, copy_only=False) -> int:
                 client.compute(arr).result()
         done = client.run(_worker_status)
         tasks = client.run(_tasks_done)
+        by_task = client.run(_task_rss)
         out["block_results_held_at_most"] = client.run_on_scheduler(_held)
     finally:
         close_client(client)
@@ -164,6 +167,7 @@ def _on_dask(grid, args, block, out: dict, copy_only=False) -> int:
     out["worker_peak_above_base_mb"] = [done[k]["peak_mb"] - base[k]["rss_mb"] for k in keys]
     out["worker_rss_after_mb"] = [done[k]["rss_mb"] for k in keys]
     out["worker_tasks"] = [tasks[k] for k in keys]
+    out["worker_rss_by_task_mb"] = [by_task[k] for k in keys]
     out["blocks"] = sum(len(r) for r in g.blocks(grid.shape, block))
     return len(keys)
 
@@ -189,6 +193,31 @@ class HeldResults(SchedulerPlugin):
             self.most = max(self.most, len(self.now))
         elif start == "memory":
             self.now.discard(key)
+
+
+try:
+    from distributed.diagnostics.plugin import WorkerPlugin
+except ImportError:
+    WorkerPlugin = object
+
+
+class TaskMemory(WorkerPlugin):
+    """Worker plugin: the worker's resident set (VmRSS) after each task it finished, in
+    order [MB] (block to block: a flat worker does not grow from its first blocks to
+    its last)."""
+
+    name = "task-memory"
+
+    def setup(self, worker):
+        self.rss = []
+
+    def transition(self, key, start, finish, **kwargs):
+        if finish == "memory":
+            self.rss.append(round(_status("VmRSS")))
+
+
+def _task_rss(dask_worker=None):
+    return dask_worker.plugins[TaskMemory.name].rss
 
 
 def _held(dask_scheduler=None):

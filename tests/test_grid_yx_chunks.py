@@ -100,6 +100,38 @@ def test_zarr_tiles_read_once_each_by_its_block(folders, monkeypatch, block=TILE
     np.testing.assert_array_equal(got, ref)
 
 
+def test_zarr_coordinates_not_read_again_for_each_block(folders, monkeypatch):
+    # each block opened the store once for each variable and read its 1-D time,
+    # time_bnds, y and x chunks every time (2026-12-05: 434 coordinate chunk reads
+    # against 60 data chunk reads for the 4 blocks of this grid); now a block opens
+    # the variable alone and cuts it by position: the coordinate reads of a run do
+    # not grow with its blocks, and the maps are those of the NetCDF3 grid (blocks of
+    # TILE; other blocks sum some cells in another order: the last bits differ)
+    if "zarr" not in folders:
+        pytest.skip("zarr stores need the zarr extra")
+    keys = []
+
+    def store(path, files):
+        from zarr.storage import LocalStore
+
+        class Store(LocalStore):
+            async def get(self, key, prototype=None, byte_range=None):
+                keys.append(key)
+                return await super().get(key, prototype, byte_range)
+        return Store(str(path), read_only=True)
+    monkeypatch.setattr(zarrstore, "_zarr_store", store)
+    grid = _open(folders["zarr"])
+    names = set(grid.met_units) | set(grid.air_units)
+    coords = {}
+    for block in (TILE, TILE // 2):                        # 4 blocks, then 16
+        del keys[:]
+        got = _maps(grid, block)
+        coords[block] = [k for k in keys if "/c/" in k and k.split("/")[0] not in names]
+        if block == TILE:
+            np.testing.assert_array_equal(got, folders["ref"])
+    assert coords[TILE] and len(coords[TILE // 2]) == len(coords[TILE]), coords
+
+
 def test_netcdf4_tiles_read_by_their_block_only(folders, monkeypatch, block=TILE):
     if "nc4" not in folders:
         pytest.skip("NetCDF4 files need the netcdf4 extra")

@@ -55,7 +55,34 @@ def _count_cumulative(mask):
     return out
 
 
-def deposition_rows(conc, quantity, site_index, starts, ends, times, vd, n_air=None, weight=None):
+def effective_sums(vd, quantity, n_air=None, weight=None):
+    """The cumulative effective Vd along time and the mask of its finite hours.
+
+    Parameters
+    ----------
+    vd, quantity, n_air, weight :
+        As for :func:`deposition_rows`.
+
+    Returns
+    -------
+    cs : ndarray (S, R, T + 1)
+        Cumulative effective Vd (``vd * weight``, times the molar density of air for a
+        mixing ratio) [m or mol m-2], NaN hours counted as 0.
+    finite : ndarray of bool (S, R, T) or None
+        The finite hours of the effective Vd; None when every hour is.
+    """
+    eff = vd if weight is None else vd * weight
+    if quantity == "mixing_ratio":
+        if n_air is None:
+            raise ValueError("a mixing ratio needs the hourly molar density of air")
+        eff = eff * n_air[:, None, :]
+    finite = np.isfinite(eff)
+    cs = _cumulative(eff, finite)
+    return cs, (None if finite.all() else finite)
+
+
+def deposition_rows(conc, quantity, site_index, starts, ends, times, vd, n_air=None, weight=None,
+                    sums=None):
     """Deposition over each sampling period (numpy core of :func:`period_deposition`).
 
     Parameters
@@ -74,6 +101,11 @@ def deposition_rows(conc, quantity, site_index, starts, ends, times, vd, n_air=N
         Molar density of air [mol m-3]; needed for mixing ratios.
     weight : ndarray (T,), optional
         Relative concentration by hour (diurnal profile), mean 1.
+    sums : (ndarray, ndarray or None), optional
+        ``(cs, cn)`` of these `vd`, `quantity`, `n_air` and `weight` when the caller has
+        them (:func:`effective_sums`, and :func:`_count_cumulative` of its mask; the
+        stages of :mod:`workbench.dryrows` share them among the species that read the
+        same Vd); computed here when None.
 
     Returns
     -------
@@ -84,20 +116,16 @@ def deposition_rows(conc, quantity, site_index, starts, ends, times, vd, n_air=N
         count of its finite hours (None when every hour is finite), for
         :func:`share_to_periods`.
     """
-    eff = vd if weight is None else vd * weight
-    if quantity == "mixing_ratio":
-        if n_air is None:
-            raise ValueError("a mixing ratio needs the hourly molar density of air")
-        eff = eff * n_air[:, None, :]
-    finite = np.isfinite(eff)
-    cs = _cumulative(eff, finite)
+    if sums is None:
+        cs, finite = effective_sums(vd, quantity, n_air, weight)
+        cn = None if finite is None else _count_cumulative(finite)
+    else:
+        cs, cn = sums
     a, b = hour_bounds(times, starts, ends)
     total = cs[site_index, :, b] - cs[site_index, :, a]
-    if finite.all():        # every hour counts: the count of [a, b) is b - a
-        n_valid = np.repeat((b - a).astype(float)[:, None], eff.shape[1], axis=1)
-        cn = None
+    if cn is None:          # every hour counts: the count of [a, b) is b - a
+        n_valid = np.repeat((b - a).astype(float)[:, None], cs.shape[1], axis=1)
     else:
-        cn = _count_cumulative(finite)
         n_valid = cn[site_index, :, b] - cn[site_index, :, a]
     hours = (ends - starts) / np.timedelta64(1, "h")
     with np.errstate(invalid="ignore", divide="ignore"):

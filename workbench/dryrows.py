@@ -18,6 +18,7 @@ from . import graph as _graph
 from .budget import COMPONENTS, PAIRS, BudgetOptions
 from .budgetstatus import bracket_velocities
 from .dryflux import _inputs_for, deposition_rows
+from .dryflux_sums import _count_cumulative, effective_sums
 from .drynss import _nss_particles
 from .drypairs import combined_notes, split_pairs
 from .dryvelocities import NH3_EXCHANGE, fill_arrays
@@ -60,11 +61,32 @@ def flux_inputs(o, air, axes, met, species, sites):
             np.asarray(cens)[rows])
 
 
+@_graph.stage("hour_sums", freeze=True)
+def hour_sums(o, fill, side):
+    """The cumulative effective Vd of a filled Vd and the mask of its finite hours
+    (:func:`workbench.dryflux_sums.effective_sums`): keyed by the fill and the air
+    side's ``(quantity, diurnal weight, air density)`` by their content (`side`, see
+    :func:`_member_rows`), so the species that deposit with the same Vd the same way
+    share one (a bracket member with the other member's Vd)."""
+    quantity, weight, n_air = side
+    cs, finite = effective_sums(fill["v_np"], quantity, n_air, weight)
+    return {"cs": cs, "finite": finite}
+
+
+@_graph.stage("hour_counts", freeze=True)
+def hour_counts(o, mask):
+    """Cumulative count of the finite hours of an effective Vd (keyed by the mask's
+    content: the species whose Vd have gaps in the same hours share one)."""
+    return {"cn": _count_cumulative(mask)}
+
+
 @_graph.stage("species_rows")
-def species_rows(o, inputs, fill, times):
-    """Deposition over every sampling period of one species (:func:`deposition_rows`)."""
+def species_rows(o, inputs, fill, times, sums, counts):
+    """Deposition over every sampling period of one species (:func:`deposition_rows`;
+    `sums` and `counts` the ``hour_sums`` and ``hour_counts`` of its Vd)."""
     si, conc, quantity, weight, n_air, notes, t0, t1, cens = inputs[1:]
-    r = deposition_rows(conc, quantity, si, t0, t1, times, fill["v_np"], n_air, weight)
+    r = deposition_rows(conc, quantity, si, t0, t1, times, fill["v_np"], n_air, weight,
+                        sums=(sums["cs"], None if counts is None else counts["cn"]))
     r["site_index"] = si
     r["conc"] = conc
     r["quantity"] = quantity
@@ -105,8 +127,19 @@ def _member_rows(run, air_node, sp, fill, axes, met, times, sites):
     air_c = _graph.Node("air_content:" + content.value, air_node.value)
     inputs = run("flux_inputs", deps={"air": air_c, "axes": axes, "met": met},
                  params={"species": sp, "sites": tuple(sites)})
-    return inputs, run("species_rows", deps={"inputs": inputs, "fill": fill,
-                                             "times": times})
+    quantity, weight, n_air = inputs.value[3:6]
+    side = (quantity, weight, n_air if quantity == "mixing_ratio" else None)
+    side = _graph.Node(                       # what the sums read of it, by content
+        "flux_inputs:" + _graph.content_digest(
+            [np.asarray(a) for a in side[1:] if a is not None], quantity,
+            *(a is None for a in side[1:])) + ":effective", side)
+    sums = run("hour_sums", deps={"fill": fill, "side": side})
+    mask = sums.value["finite"]
+    counts = _graph.input_node("none", "", None) if mask is None else run(
+        "hour_counts", deps={"mask": _graph.Node(        # keyed by its content
+            f"hour_sums:{_graph.content_digest([mask])}:finite", mask)})
+    return inputs, run("species_rows", deps={"inputs": inputs, "fill": fill, "times": times,
+                                             "sums": sums, "counts": counts})
 
 
 def exchange_member_rows(air, vel, met, sites, member, options: BudgetOptions, graph,

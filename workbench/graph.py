@@ -31,9 +31,13 @@ from typing import Callable, NamedTuple
 import numpy as np
 
 #: Default bounds of a graph's cache: entries and bytes (a velocities Dataset of a
-#: site-year with three receptors is about 15-40 MB).
+#: site-year with three receptors is about 15-40 MB).  The bytes count each numpy
+#: buffer once, however many results hold it (until 2026-12-05 they were counted in
+#: each, 1.77 times the arrays held after the demo network's run: the bound was then
+#: 3,000 MB, about 1,700 MB of arrays; docs/performance.md, "What the stage graph
+#: holds after a network run").
 MAX_ENTRIES = 2048
-MAX_BYTES = 3_000_000_000
+MAX_BYTES = 2_000_000_000
 _MISSING = object()
 
 
@@ -263,25 +267,45 @@ def stage(name, reads=None, counts_as=None, freeze=False):
     return deco
 
 
-def _nbytes(value, seen=None) -> int:
-    """Rough size of a cached value [bytes] (arrays, Datasets, DataFrames, containers)."""
-    seen = set() if seen is None else seen
+def _root(a: np.ndarray) -> np.ndarray:
+    """The numpy array owning the memory of `a` (a view's base, followed)."""
+    while isinstance(a.base, np.ndarray):
+        a = a.base
+    return a
+
+
+def _sizes(value, held: dict) -> int:
+    """The numpy buffers of `value` into `held` (address -> (bytes, owning array)), and
+    the bytes of the rest (lazy or pandas data, other objects) returned."""
     if isinstance(value, np.ndarray):
-        return value.nbytes
-    if hasattr(value, "nbytes") and hasattr(value, "variables"):      # xarray
-        try:
-            return int(value.nbytes)
-        except Exception:                                               # lazy / odd
-            return 0
+        root = _root(value)
+        if root.nbytes:
+            held[root.__array_interface__["data"][0]] = (root.nbytes, root)
+        return 0
+    if hasattr(value, "nbytes") and hasattr(value, "variables"):      # xarray Dataset
+        return sum(_variable(v, held) for v in value.variables.values())
+    if hasattr(value, "variable") and hasattr(value, "coords"):       # xarray DataArray
+        return _variable(value.variable, held) + sum(
+            _variable(c.variable, held) for c in value.coords.values())
     if hasattr(value, "memory_usage") and hasattr(value, "columns"):    # DataFrame
         return int(value.memory_usage(deep=False).sum())
     if isinstance(getattr(value, "nbytes", None), (int, np.integer)):   # e.g. a Study
         return int(value.nbytes)
     if isinstance(value, dict):
-        return sum(_nbytes(v, seen) for v in value.values())
+        return sum(_sizes(v, held) for v in value.values())
     if isinstance(value, (tuple, list)):
-        return sum(_nbytes(v, seen) for v in value)
+        return sum(_sizes(v, held) for v in value)
     return 64
+
+
+def _variable(var, held: dict) -> int:
+    data = getattr(var, "_data", None)
+    if isinstance(data, np.ndarray):
+        return _sizes(data, held)
+    try:
+        return int(var.nbytes)                  # lazy (dask, a file) or an index
+    except Exception:                                                   # odd
+        return 0
 
 
 def _freeze(value):
@@ -301,7 +325,9 @@ class Graph:
     max_entries : int
     max_bytes : int
         Rough bound of the cached results [bytes] (an entry larger than this is still
-        kept alone, until the next one).
+        kept alone, until the next one).  A numpy buffer held by several results (a
+        step's arrays in the velocities Dataset, the filled Vd in the rows of every
+        species that reads it) is counted once, while one of them is cached.
 
     Attributes
     ----------
@@ -313,7 +339,8 @@ class Graph:
 
     def __init__(self, max_entries=MAX_ENTRIES, max_bytes=MAX_BYTES):
         self.max_entries, self.max_bytes = int(max_entries), int(max_bytes)
-        self._store = OrderedDict()                  # key -> (value, nbytes), oldest first
+        self._store = OrderedDict()      # key -> (value, own bytes, buffers), oldest first
+        self._buffers = {}               # address -> [entries holding it, bytes, array]
         self._bytes = 0
         self.counts = Counter()
         self.edges = {}
@@ -404,17 +431,37 @@ class Graph:
         if counts is not None and st.counts_as:
             counts[st.counts_as] = counts.get(st.counts_as, 0) + 1
         if key in self._store:
-            self._bytes -= self._store.pop(key)[1]
-        size = _nbytes(value)
-        self._store[key] = (value, size)
-        self._bytes += size
+            self._drop(self._store.pop(key))
+        held = {}
+        own = _sizes(value, held)
+        for address, (n, root) in held.items():
+            got = self._buffers.get(address)
+            if got is None:
+                self._buffers[address] = [1, n, root]
+                self._bytes += n
+            else:
+                got[0] += 1
+        self._store[key] = (value, own, tuple(held))
+        self._bytes += own
         while len(self._store) > 1 and (len(self._store) > self.max_entries
                                         or self._bytes > self.max_bytes):
-            _, (_, old) = self._store.popitem(last=False)
-            self._bytes -= old
+            self._drop(self._store.popitem(last=False)[1])
+
+    def _drop(self, entry):
+        """Take a removed entry's bytes off the count (its buffers held elsewhere in
+        the cache stay counted)."""
+        _, own, addresses = entry
+        self._bytes -= own
+        for address in addresses:
+            got = self._buffers[address]
+            got[0] -= 1
+            if not got[0]:
+                del self._buffers[address]
+                self._bytes -= got[1]
 
     def clear(self):
         self._store.clear()
+        self._buffers.clear()
         self._bytes = 0
 
     def steps(self, identity: str, counts=None, air: str | None = None) -> "Steps":

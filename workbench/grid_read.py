@@ -31,11 +31,14 @@ class GridError(InputError):
     """A gridded input breaks the format of docs/data_formats.md."""
 
 
-def _open(path: Path, role: str, notes=None) -> xr.Dataset:
-    """The grid file (NetCDF) or store (zarr, :mod:`workbench.io.zarrstore`), lazily."""
+def _open(path: Path, role: str, notes=None, only=None) -> xr.Dataset:
+    """The grid file (NetCDF) or store (zarr, :mod:`workbench.io.zarrstore`), lazily;
+    `only`: a zarr store's variable of that name alone, without its coordinates (read
+    by position; a NetCDF file is opened whole)."""
     if is_zarr_path(path):
         try:
-            ds, more = open_zarr(path, role, check_consolidated=notes is not None)
+            ds, more = open_zarr(path, role, check_consolidated=notes is not None,
+                                 only=only)
         except InputError as e:
             raise GridError(e.problem, file=e.file, column=e.column, value=e.value,
                             expected=e.expected) from None

@@ -179,7 +179,7 @@ def _zarr_store(path: Path, files: _Files):
     return ZipStore(str(path), mode="r")
 
 
-def open_zarr(path, role: str = "met", check_consolidated: bool = True
+def open_zarr(path, role: str = "met", check_consolidated: bool = True, only=None
               ) -> tuple[xr.Dataset, list]:
     """Open a zarr store lazily (no dask, no values read but the coordinates).
 
@@ -192,6 +192,11 @@ def open_zarr(path, role: str = "met", check_consolidated: bool = True
         What the store should hold, for the messages ("met", "air", "land_use").
     check_consolidated : bool
         Compare the consolidated metadata with the arrays' own (False: no note).
+    only : str, optional
+        Open this variable alone: the store's other arrays are dropped before they are
+        read, its coordinates too (a variable read by position, as a grid block reads
+        it: opening the store for each block and variable read the 1-D ``time``,
+        ``time_bnds``, ``y`` and ``x`` chunks each time).
 
     Returns
     -------
@@ -224,12 +229,16 @@ def open_zarr(path, role: str = "met", check_consolidated: bool = True
     if int(version.split(".")[0]) < 3:      # xarray reads zarr stores with zarr 3
         raise InputError(f"a zarr store, and zarr {version} is installed", file=path,
                          expected=f"zarr 3 or later (Python 3.11 or later): {ZARR_EXTRA}")
+    drop = None
+    if only is not None:                 # the top-level arrays listed, none of them read
+        drop = sorted((files.arrays("zarr.json") | files.arrays(".zarray")) - {only})
     store = _zarr_store(path, files)
     try:
         with warnings.catch_warnings():
             warnings.filterwarnings("ignore", module=r"zarr(\..*)?$")
             ds = xr.open_dataset(store, engine="zarr", chunks=None, consolidated=False,
-                                 cache=False, group=files.prefix or None)
+                                 cache=False, group=files.prefix or None,
+                                 drop_variables=drop)
     except Exception as exc:  # many codecs and formats, many error types
         if hasattr(store, "close"):
             store.close()
