@@ -40,7 +40,6 @@ from .dryrows import exchange_member_rows
 from .graph import Graph, Node, content_digest, input_node, token
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
-from .period_notes import one_sample_notes
 from .periods import default_span, excluded_record_notes
 from .pipeline_result import Result
 from .pipeline_velocities import _NONE, _StudyVelocities
@@ -409,6 +408,11 @@ class Study(_StudyVelocities):
                      "met": self._input("met", self.inputs.met)},
                     {"history": c_history,
                      "collectors": tuple((s.id, s.collector) for s in cat.value)})
+            if wet.value is not None:
+                # the wet components read one budget option: kept across a dry change
+                deps["wet_parts"] = self._run(
+                    "wet_components", {"budget": budget_options},
+                    {"wet": wet, "periods": table}, {"sites": tuple(cat.value.ids)})
             ds = self._run("budget", opts, deps, {"receptors": shown})
             return ds, wet
 
@@ -427,9 +431,12 @@ class Study(_StudyVelocities):
                       # a new list: the stage's own stays as cached
                       notes=([] if rows.value is None else list(rows.value["notes"]))
                       + self.span_notes(start, end)
-                      + one_sample_notes(periods.value, self.inputs.precipitation,
-                                         self.inputs.air, wet_options.min_coverage_fraction,
-                                         budget_options.min_air_coverage),
+                      + self._run("precipitation_notes", {"wet": wet_options},
+                                  {"periods": periods, "precipitation": self._input(
+                                      "precipitation", self.inputs.precipitation)}).value
+                      + self._run("air_notes", {"budget": budget_options},
+                                  {"periods": periods,
+                                   "air": self._input("air", self.inputs.air)}).value,
                       keys={"budget": res_ds.key, "years": year_ds.key, "screened": screened.key,
                             "wet": wet_r.key, "velocities": vel.key},
                       graph=self.graph)
