@@ -290,3 +290,5 @@ def test_a_dry_or_budget_change_derives_no_wet_component_nor_precipitation_note(
     assert fresh.graph.counts["wet_components"] == 6
     assert fresh.graph.counts["precipitation_notes"] == 2
     assert fresh.graph.counts["air_notes"] == 2
+    # the samples' median lengths, read by no option: once for each kind of sample
+    assert fresh.graph.counts["sample_hours"] == 2

@@ -177,6 +177,20 @@ class Study(_StudyVelocities):
         over = {**self.site_overrides, **(overrides or {})}
         return self._input("catalogue", self.catalogue(overrides), over)
 
+    def _sample_notes(self, wet_options, budget_options, periods: Node) -> list:
+        """The notes of a period that one sample decides (precipitation, air): stages
+        on the samples' median lengths, each reading its one coverage minimum."""
+        out = []
+        for name, group, opts, role, data in (
+                ("precipitation_notes", "wet", wet_options, "precipitation",
+                 self.inputs.precipitation),
+                ("air_notes", "budget", budget_options, "air", self.inputs.air)):
+            samples = self._input(role, data)
+            hours = self._run("sample_hours", deps={"samples": samples})
+            out += self._run(name, {group: opts}, {"periods": periods, role: samples,
+                                                   "hours": hours}).value
+        return out
+
     def _run(self, name, options=None, deps=None, params=None, fn=None) -> Node:
         return self.graph.run(name, options, deps, params, fn, counts=self.counts)
 
@@ -431,12 +445,7 @@ class Study(_StudyVelocities):
                       # a new list: the stage's own stays as cached
                       notes=([] if rows.value is None else list(rows.value["notes"]))
                       + self.span_notes(start, end)
-                      + self._run("precipitation_notes", {"wet": wet_options},
-                                  {"periods": periods, "precipitation": self._input(
-                                      "precipitation", self.inputs.precipitation)}).value
-                      + self._run("air_notes", {"budget": budget_options},
-                                  {"periods": periods,
-                                   "air": self._input("air", self.inputs.air)}).value,
+                      + self._sample_notes(wet_options, budget_options, periods),
                       keys={"budget": res_ds.key, "years": year_ds.key, "screened": screened.key,
                             "wet": wet_r.key, "velocities": vel.key},
                       graph=self.graph)

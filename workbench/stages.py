@@ -18,7 +18,7 @@ import xarray as xr
 from . import periods as _periods
 from .budget import BudgetOptions, assemble, derived
 from .budget_assembly import wet_parts
-from .period_notes import one_sample_notes
+from .period_notes import median_hours, one_sample_notes
 from .drycomponents import NH3_EXCHANGE, fill_arrays, prepare_velocities
 from .dryflux import fill_diurnal, hour_slots
 from .graph import declare, stage, variables_digest
@@ -401,18 +401,30 @@ def budget(o, wet, dry, catalogue, periods, season_cov, receptors, collector=Non
                     collector=collector, wet_from=wet_parts)
 
 
+@stage("sample_hours")
+def sample_hours(o, samples):
+    """The median sample length of each sampler [h] (:func:`workbench.period_notes.median_hours`;
+    None without samples)."""
+    if samples is None or "start" not in samples.variables or not samples["start"].size:
+        return None
+    return median_hours(samples)
+
+
 @stage("precipitation_notes", reads={"wet": ("min_coverage_fraction",)})
-def precipitation_notes(o, periods, precipitation=None):
+def precipitation_notes(o, periods, precipitation=None, hours=None):
     """The run note where one precipitation sample is more of the shortest period than
-    ``[wet] min_coverage_fraction`` lets it miss (:func:`workbench.period_notes.one_sample_notes`)."""
+    ``[wet] min_coverage_fraction`` lets it miss (:func:`workbench.period_notes.one_sample_notes`;
+    `hours`: the ``sample_hours`` stage)."""
     return one_sample_notes(periods, precipitation,
-                            min_coverage_fraction=o.wet.min_coverage_fraction)
+                            min_coverage_fraction=o.wet.min_coverage_fraction,
+                            medians={"precipitation": hours})
 
 
 @stage("air_notes", reads={"budget": ("min_air_coverage",)})
-def air_notes(o, periods, air=None):
+def air_notes(o, periods, air=None, hours=None):
     """The same note of one air sample and ``[budget] min_air_coverage``."""
-    return one_sample_notes(periods, None, air, min_air_coverage=o.budget.min_air_coverage)
+    return one_sample_notes(periods, None, air, min_air_coverage=o.budget.min_air_coverage,
+                            medians={"air": hours})
 
 
 @stage("derived")
