@@ -235,3 +235,60 @@ def test_the_stage_table_of_the_docs_is_up_to_date():
     mod = importlib.util.module_from_spec(spec)
     spec.loader.exec_module(mod)
     assert mod.table() in (docs / "engine.md").read_text()
+
+
+def test_a_dry_or_budget_change_derives_no_wet_component_nor_precipitation_note(
+        study, monkeypatch):
+    """The wet components read ``budget.sulfate_basis`` only and the precipitation note
+    ``wet.min_coverage_fraction`` only: a dry change derives no wet component again, a
+    budget change other than the basis neither, and a budget change writes no
+    precipitation note again (the old budget stage and `Study.run` did, every run)."""
+    import workbench.budget_assembly as assembly
+    import workbench.pipeline as pipeline
+    import workbench.stages as stages
+    calls = {"wet": 0, "precipitation": 0, "air": 0}
+    from workbench.period_notes import one_sample_notes as notes
+    component = assembly.wet_component
+
+    def counted_component(*a, **k):
+        calls["wet"] += 1
+        return component(*a, **k)
+
+    def counted_notes(periods, precipitation=None, air=None, *a, **k):
+        calls["precipitation"] += precipitation is not None
+        calls["air"] += air is not None
+        return notes(periods, precipitation, air, *a, **k)
+    monkeypatch.setattr(assembly, "wet_component", counted_component)
+    for module in (stages, pipeline):              # where each code looks it up
+        monkeypatch.setattr(module, "one_sample_notes", counted_notes, raising=False)
+    st, sc = study
+    fresh = Study(st.inputs, st.site_overrides)
+    base = {"wet": sc.options["wet"], "dry": sc.options["dry"], "budget": sc.options["budget"]}
+    fixed = dict(sc.fixed_velocity)
+    first = _run(fresh, base, fixed)
+    assert calls["wet"] >= 3 and calls["precipitation"] >= 1 and calls["air"] >= 1
+    ran = dict(calls)
+
+    def changed(group, **values):
+        before = dict(calls)
+        r = _run(fresh, dict(base, **{group: dataclasses.replace(base[group], **values)}),
+                 fixed)
+        return {k: calls[k] - before[k] for k in calls}, r
+    new, r = changed("dry", ustar_floor=0.2)
+    assert new["wet"] == 0 and new["precipitation"] == 0 and new["air"] == 0
+    assert r.notes == first.notes
+    new, _ = changed("budget", require_all_seasons=not base["budget"].require_all_seasons)
+    assert new == {"wet": 0, "precipitation": 0, "air": 0}
+    new, _ = changed("budget", min_air_coverage=0.6)
+    assert new == {"wet": 0, "precipitation": 0, "air": 1}
+    new, _ = changed("budget", sulfate_basis="total")
+    assert new["wet"] == ran["wet"] and new["precipitation"] == 0
+    new, _ = changed("wet", min_coverage_fraction=0.5)
+    assert new["precipitation"] == 1 and new["air"] == 0
+    # each of them a stage the graph counts
+    # months and years: the first run, the basis and the wet change
+    assert fresh.graph.counts["wet_components"] == 6
+    assert fresh.graph.counts["precipitation_notes"] == 2
+    assert fresh.graph.counts["air_notes"] == 2
+    # the samples' median lengths, read by no option: once for each kind of sample
+    assert fresh.graph.counts["sample_hours"] == 2

@@ -25,8 +25,42 @@ from .surfacehistory import collector_shares, period_notes
 from .wet.deposition import COVERAGE_SHORT
 
 
+def wet_on_axes(wet: xr.Dataset, sites, labels):
+    """The wet chain's Dataset on the budget's (site, period) axes, its period status
+    (NaN read as ``missing``) and its completeness failure [bool]."""
+    w = wet if _same_axis(wet, "site", sites) and _same_axis(wet, "period", labels) else \
+        wet.reindex(site=sites, period=labels)
+    w_status = w.variables["status"].values.astype(object)
+    w_status = np.where(pd.isna(w_status), "missing", w_status)
+    w_fail = (as_flag(w.variables["completeness_failed"].values)
+              if "completeness_failed" in w.variables else w_status == "flagged")
+    return w, w_status, w_fail
+
+
+def wet_parts(wet: xr.Dataset, sites, labels, options) -> dict:
+    """:func:`workbench.budgetstatus.wet_component` (with its failure words) of each wet
+    component of the budget (``SO4``, ``NO3``, ``NH4``), on the budget's (site, period)
+    axes: what :func:`assemble` starts each wet component from.  It reads
+    ``options.sulfate_basis`` only (the ``wet_components`` stage keeps it across the
+    changes of the other options).
+
+    Returns
+    -------
+    dict
+        species -> (status, note, deposition [mol m-2] or None, fails, share [1],
+        failure), each (site, period).
+    """
+    return _wet_parts(*wet_on_axes(wet, list(sites), list(labels)), options)
+
+
+def _wet_parts(w, w_status, w_fail, options) -> dict:
+    return {sp: wet_component(w, sp, options, w_status, w_fail, with_failure=True)
+            for _, path, sp in COMPONENTS if path == "wet"}
+
+
 def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods: pd.DataFrame,
-             options: BudgetOptions, receptors, season_cov=None, collector=None):
+             options: BudgetOptions, receptors, season_cov=None, collector=None,
+             wet_from=None):
     """Wet + dry components per site, receptor and period, with totals and status.
 
     Parameters
@@ -47,6 +81,9 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
         periods, at sites whose collector changed: each sample's part of the wet
         deposition is taken under its own collector's rules (without it: the share of
         the period's hours under each collector by the change's date).
+    wet_from : dict, optional
+        :func:`wet_parts` of `wet` on these sites and periods with these options (the
+        ``wet_components`` stage); computed here without it.
 
     Returns
     -------
@@ -96,12 +133,9 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
     labels = periods["label"].values
     hours_p = periods["hours"].to_numpy(dtype=float)        # [h]
     if wet is not None:
-        w = wet if _same_axis(wet, "site", sites) and _same_axis(wet, "period", labels) else \
-            wet.reindex(site=sites, period=labels)
-        w_status = w.variables["status"].values.astype(object)
-        w_status = np.where(pd.isna(w_status), "missing", w_status)
-        w_fail = (as_flag(w.variables["completeness_failed"].values)
-                  if "completeness_failed" in w.variables else w_status == "flagged")
+        w, w_status, w_fail = wet_on_axes(wet, sites, labels)
+        if wet_from is None:
+            wet_from = _wet_parts(w, w_status, w_fail, options)
         w_frac = np.fmin(np.fmin(w.variables["gauge_fraction"].values, w.variables["coverage_fraction"].values),
                          w.variables["valid_precip_fraction"].values)
     if dry is not None:
@@ -119,8 +153,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             if wet is None:
                 comp_note[..., j] = "no precipitation chemistry input"
                 continue
-            st, note, d, fl, ion_share, why_fail = wet_component(
-                w, sp, options, w_status, w_fail, with_failure=True)
+            st, note, d, fl, ion_share, why_fail = wet_from[sp]
             if d is None:
                 comp_note[..., j] = f"no {sp} column in the precipitation chemistry"
                 continue

@@ -23,7 +23,7 @@ KIND_WORDS = {"month": "month", "season": "season", "year": "year",
               "hydro_year": "hydrological year", "custom": "custom period"}
 
 
-def _median_hours(ds) -> pd.Series:
+def median_hours(ds) -> pd.Series:
     """Median sample length per sampler [h] (``sampler_id``; one group without it)."""
     hours = (ds["end"].values.astype("datetime64[ns]")
              - ds["start"].values.astype("datetime64[ns]")) / np.timedelta64(1, "h")
@@ -34,7 +34,7 @@ def _median_hours(ds) -> pd.Series:
 
 
 def one_sample_notes(periods: pd.DataFrame, precipitation=None, air=None,
-                     min_coverage_fraction=0.9, min_air_coverage=0.75) -> list:
+                     min_coverage_fraction=0.9, min_air_coverage=0.75, medians=None) -> list:
     """Notes where one usual sample is more of the shortest reporting period than the
     coverage minimum lets it miss.
 
@@ -49,6 +49,9 @@ def one_sample_notes(periods: pd.DataFrame, precipitation=None, air=None,
         ``[wet] min_coverage_fraction`` [1].
     min_air_coverage : float
         ``[budget] min_air_coverage`` [1].
+    medians : dict, optional
+        :func:`median_hours` of the samples by role (``"precipitation"``, ``"air"``),
+        where already computed (the ``sample_hours`` stage: no option changes them).
 
     Returns
     -------
@@ -85,7 +88,8 @@ def one_sample_notes(periods: pd.DataFrame, precipitation=None, air=None,
     for role, ds, minimum, option, more in roles:
         if ds is None or "start" not in ds.variables or not ds["start"].size:
             continue
-        med = _median_hours(ds)
+        med = (medians or {}).get(role)
+        med = median_hours(ds) if med is None else med
         if med.empty:
             continue
         h = float(med.max())

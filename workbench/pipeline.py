@@ -40,7 +40,6 @@ from .dryrows import exchange_member_rows
 from .graph import Graph, Node, content_digest, input_node, token
 from .io.inputs import Inputs
 from .io.sites import SiteCatalogue
-from .period_notes import one_sample_notes
 from .periods import default_span, excluded_record_notes
 from .pipeline_result import Result
 from .pipeline_velocities import _NONE, _StudyVelocities
@@ -177,6 +176,20 @@ class Study(_StudyVelocities):
     def _catalogue_node(self, overrides=None) -> Node:
         over = {**self.site_overrides, **(overrides or {})}
         return self._input("catalogue", self.catalogue(overrides), over)
+
+    def _sample_notes(self, wet_options, budget_options, periods: Node) -> list:
+        """The notes of a period that one sample decides (precipitation, air): stages
+        on the samples' median lengths, each reading its one coverage minimum."""
+        out = []
+        for name, group, opts, role, data in (
+                ("precipitation_notes", "wet", wet_options, "precipitation",
+                 self.inputs.precipitation),
+                ("air_notes", "budget", budget_options, "air", self.inputs.air)):
+            samples = self._input(role, data)
+            hours = self._run("sample_hours", deps={"samples": samples})
+            out += self._run(name, {group: opts}, {"periods": periods, role: samples,
+                                                   "hours": hours}).value
+        return out
 
     def _run(self, name, options=None, deps=None, params=None, fn=None) -> Node:
         return self.graph.run(name, options, deps, params, fn, counts=self.counts)
@@ -409,6 +422,11 @@ class Study(_StudyVelocities):
                      "met": self._input("met", self.inputs.met)},
                     {"history": c_history,
                      "collectors": tuple((s.id, s.collector) for s in cat.value)})
+            if wet.value is not None:
+                # the wet components read one budget option: kept across a dry change
+                deps["wet_parts"] = self._run(
+                    "wet_components", {"budget": budget_options},
+                    {"wet": wet, "periods": table}, {"sites": tuple(cat.value.ids)})
             ds = self._run("budget", opts, deps, {"receptors": shown})
             return ds, wet
 
@@ -427,9 +445,7 @@ class Study(_StudyVelocities):
                       # a new list: the stage's own stays as cached
                       notes=([] if rows.value is None else list(rows.value["notes"]))
                       + self.span_notes(start, end)
-                      + one_sample_notes(periods.value, self.inputs.precipitation,
-                                         self.inputs.air, wet_options.min_coverage_fraction,
-                                         budget_options.min_air_coverage),
+                      + self._sample_notes(wet_options, budget_options, periods),
                       keys={"budget": res_ds.key, "years": year_ds.key, "screened": screened.key,
                             "wet": wet_r.key, "velocities": vel.key},
                       graph=self.graph)

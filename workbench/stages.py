@@ -17,6 +17,8 @@ import xarray as xr
 
 from . import periods as _periods
 from .budget import BudgetOptions, assemble, derived
+from .budget_assembly import wet_parts
+from .period_notes import median_hours, one_sample_notes
 from .drycomponents import NH3_EXCHANGE, fill_arrays, prepare_velocities
 from .dryflux import fill_diurnal, hour_slots
 from .graph import declare, stage, variables_digest
@@ -381,12 +383,48 @@ def collector_split(o, screened, periods, met, history, collectors):
     return _split(screened, periods, o.wet, met, history, dict(collectors))
 
 
+@stage("wet_components", reads={"budget": ("sulfate_basis",)})
+def wet_components(o, wet, periods, sites):
+    """The budget's wet components on its sites and periods, before the bulk collectors
+    (:func:`workbench.budget_assembly.wet_parts`): a dry option or another budget option
+    changed, they are not derived again."""
+    return wet_parts(wet, list(sites), periods["label"].values, o.budget)
+
+
 @stage("budget", reads={"budget": BUDGET_OPTIONS}, counts_as="budget")
-def budget(o, wet, dry, catalogue, periods, season_cov, receptors, collector=None):
+def budget(o, wet, dry, catalogue, periods, season_cov, receptors, collector=None,
+           wet_parts=None):
     """Wet + dry components per site, receptor and period, totals and status
-    (`collector`: the ``collector_split`` stage at sites whose collector changed)."""
+    (`collector`: the ``collector_split`` stage at sites whose collector changed;
+    `wet_parts`: the ``wet_components`` stage)."""
     return assemble(wet, dry, catalogue, periods, o.budget, list(receptors), season_cov,
-                    collector=collector)
+                    collector=collector, wet_from=wet_parts)
+
+
+@stage("sample_hours")
+def sample_hours(o, samples):
+    """The median sample length of each sampler [h] (:func:`workbench.period_notes.median_hours`;
+    None without samples)."""
+    if samples is None or "start" not in samples.variables or not samples["start"].size:
+        return None
+    return median_hours(samples)
+
+
+@stage("precipitation_notes", reads={"wet": ("min_coverage_fraction",)})
+def precipitation_notes(o, periods, precipitation=None, hours=None):
+    """The run note where one precipitation sample is more of the shortest period than
+    ``[wet] min_coverage_fraction`` lets it miss (:func:`workbench.period_notes.one_sample_notes`;
+    `hours`: the ``sample_hours`` stage)."""
+    return one_sample_notes(periods, precipitation,
+                            min_coverage_fraction=o.wet.min_coverage_fraction,
+                            medians={"precipitation": hours})
+
+
+@stage("air_notes", reads={"budget": ("min_air_coverage",)})
+def air_notes(o, periods, air=None, hours=None):
+    """The same note of one air sample and ``[budget] min_air_coverage``."""
+    return one_sample_notes(periods, None, air, min_air_coverage=o.budget.min_air_coverage,
+                            medians={"air": hours})
 
 
 @stage("derived")
