@@ -137,55 +137,40 @@ def sampling_gap_notes(ds, role: str) -> list[str]:
         E.g. ``air v18-F1: 10 weeks without samples (1 gap; longest 10 weeks from
         2017-08-03 14:00 UTC)``.
     """
-    out = []
-    for k, _, sp, gaps in species_gap_runs(ds):
-        secs = np.array([(g1 - g0) / np.timedelta64(1, "s") for g0, g1 in gaps])
-        j = int(np.argmax(secs))
-        out.append(f"{role} {k}: {sp} without a value in {_weeks(secs.sum())} of its "
-                   f"samples ({len(gaps)} gap{'' if len(gaps) == 1 else 's'}; longest "
-                   f"{_weeks(secs[j])} from {_day(gaps[j][0])} to {_day(gaps[j][1])} "
-                   "UTC)")
-    return out
-
-
-def species_gap_runs(ds) -> list:
-    """The stretches of :func:`species_gap_notes`: (sampler, site, species, gaps), the
-    gaps in time order, each (first instant, last instant) [UTC]; a sampler without
-    ``sampler_id`` goes by its site's name.
-
-    The loop runs over the samplers and species (a few), never over rows or hours.
-    """
-    out = []
     if ds is None or not ds.sizes.get(next(iter(ds["site"].dims), ""), 0):
-        return out
+        return []
     site = ds["site"].values.astype(str)
     start, end = ds["start"].values, ds["end"].values
     sampler = (ds["sampler_id"].values.astype(str) if "sampler_id" in ds
                else np.full(site.shape, ""))
     key = np.where(sampler == "", site, sampler)
-    species = [k for k in ds.data_vars if "quantity" in ds[k].attrs]
-    has = {sp: (np.isfinite(np.asarray(ds[sp].values, float))
-                | (np.asarray(ds[f"{sp}_censored"].values, bool)
-                   if f"{sp}_censored" in ds else False)) for sp in species}
-    day = np.timedelta64(int(MIN_GAP_DAYS * 86400), "s")
-    for k in dict.fromkeys(key):
-        m = key == k
-        length = max(np.median(end[m] - start[m]), day)
-        a, b = start[m].min(), end[m].max()
-        s_id = site[m][0]
-        for sp in species:
-            v = m & has[sp]
-            if not v.any() or v.sum() == m.sum():
+    lo, hi = start.min(), end.max()
+    slack = np.timedelta64(EDGE_SLACK_DAYS, "D")
+    out = []
+    for s_id in dict.fromkeys(site):
+        at = site == s_id
+        a, b = start[at].min(), end[at].max()
+        late = [f"starts {_day(a)} UTC ({_weeks((a - lo) / np.timedelta64(1, 's'))} after "
+                f"the file's first sample)"] if a - lo > slack else []
+        late += [f"ends {_day(b)} UTC ({_weeks((hi - b) / np.timedelta64(1, 's'))} before "
+                 f"the file's last)"] if hi - b > slack else []
+        if late:
+            out.append(f"{role} {s_id}: the record " + " and ".join(late))
+        for k in dict.fromkeys(key[at]):
+            m = key == k
+            length = np.median(end[m] - start[m])
+            gaps = interval_gaps(start[m], end[m],
+                                 max(length, np.timedelta64(int(MIN_GAP_DAYS * 86400), "s")))
+            other = at & ~m          # a gap the site's other samplers fill is a turn of
+            gaps = [g for g in gaps  # samplers (said by sampler_turns), not a gap
+                    if not _covered(g, start[other], end[other])]
+            if not gaps:
                 continue
-            # the sampler's first start and last end as empty intervals: a species
-            # blank at the start or end of the record is a gap too
-            gaps = interval_gaps(np.concatenate([[a], start[v], [b]]),
-                                 np.concatenate([[a], end[v], [b]]), length)
-            other = (site == s_id) & ~m & has[sp]
-            gaps = [g for g in gaps if _covered(g, start[m], end[m])
-                    and not _covered(g, start[other], end[other])]
-            if gaps:
-                out.append((str(k), str(s_id), sp, gaps))
+            secs = np.array([(g1 - g0) / np.timedelta64(1, "s") for g0, g1 in gaps])
+            j = int(np.argmax(secs))
+            out.append(f"{role} {k}: {_weeks(secs.sum())} without samples ({len(gaps)} gap"
+                       f"{'' if len(gaps) == 1 else 's'}; longest {_weeks(secs[j])} from "
+                       f"{_day(gaps[j][0])} to {_day(gaps[j][1])} UTC)")
     return out
 
 
@@ -216,6 +201,24 @@ def species_gap_notes(ds, role: str = "air") -> list[str]:
         E.g. ``air RDG-F1: NH3 without a value in 4 weeks of its samples (1 gap;
         longest 4 weeks from 2020-06-04 14:00 to 2020-07-02 14:00 UTC)``.
     """
+    out = []
+    for k, _, sp, gaps in species_gap_runs(ds):
+        secs = np.array([(g1 - g0) / np.timedelta64(1, "s") for g0, g1 in gaps])
+        j = int(np.argmax(secs))
+        out.append(f"{role} {k}: {sp} without a value in {_weeks(secs.sum())} of its "
+                   f"samples ({len(gaps)} gap{'' if len(gaps) == 1 else 's'}; longest "
+                   f"{_weeks(secs[j])} from {_day(gaps[j][0])} to {_day(gaps[j][1])} "
+                   "UTC)")
+    return out
+
+
+def species_gap_runs(ds) -> list:
+    """The stretches of :func:`species_gap_notes`: (sampler, site, species, gaps), the
+    gaps in time order, each (first instant, last instant) [UTC]; a sampler without
+    ``sampler_id`` goes by its site's name.
+
+    The loop runs over the samplers and species (a few), never over rows or hours.
+    """
     if ds is None or not ds.sizes.get(next(iter(ds["site"].dims), ""), 0):
         return []
     site = ds["site"].values.astype(str)
@@ -245,12 +248,6 @@ def species_gap_notes(ds, role: str = "air") -> list[str]:
             other = (site == s_id) & ~m & has[sp]
             gaps = [g for g in gaps if _covered(g, start[m], end[m])
                     and not _covered(g, start[other], end[other])]
-            if not gaps:
-                continue
-            secs = np.array([(g1 - g0) / np.timedelta64(1, "s") for g0, g1 in gaps])
-            j = int(np.argmax(secs))
-            out.append(f"{role} {k}: {sp} without a value in {_weeks(secs.sum())} of its "
-                       f"samples ({len(gaps)} gap{'' if len(gaps) == 1 else 's'}; longest "
-                       f"{_weeks(secs[j])} from {_day(gaps[j][0])} to {_day(gaps[j][1])} "
-                       "UTC)")
+            if gaps:
+                out.append((str(k), str(s_id), sp, gaps))
     return out
