@@ -224,6 +224,9 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                                      met_gaps=_met_gaps(dr)[:, None, :],
                                      met_gap_h=_met_gap_hours(dr)[:, None, :])
             why = sampling_gap_note(why, st, cov, hours_p[None, None, :], "air")
+            if "species_gap_note" in dr.variables:   # the sampler and dates of the gap
+                spg = dr.variables["species_gap_note"].values[:, None, :, k]
+                why = np.where(st != "missing", join_notes(why, spg), why).astype(object)
             fails[..., j] = fl
             failure[..., j] = np.where(fl, dry_failure_words(cov, fc, sok, options), "")
             comp_note[..., j] = why

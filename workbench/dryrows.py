@@ -23,6 +23,7 @@ from .drynss import _nss_particles
 from .drypairs import combined_notes, split_pairs
 from .dryvelocities import NH3_EXCHANGE, fill_arrays
 from .io.metgaps import VD_INPUTS, gap_runs, without_value
+from .io.samplegaps import species_gap_runs
 
 
 def _fingerprint(air: xr.Dataset, species: str) -> str:
@@ -230,7 +231,8 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
         :func:`workbench.io.metgaps.without_value`), ``"met_gap_runs"`` and
         ``"met_times"`` (the runs of hours without a met row or a value a Vd reads,
         :func:`workbench.io.metgaps.gap_runs`, on the met's time axis),
-        ``"masked_note"`` (site x species str,
+        ``"species_gap_runs"`` (:func:`workbench.io.samplegaps.species_gap_runs` of the
+        air as read), ``"masked_note"`` (site x species str,
         :func:`masked_notes`), ``"masked_runs"`` (the masked rows, :func:`masked_runs`;
         the moved-into species of a ``pair_split`` holds the other member's too),
         ``"receptors"``, ``"times"``, ``"sites"``;
@@ -305,6 +307,9 @@ def dry_rows(air, vel, met, sites, options: BudgetOptions, graph=None, counts=No
          if sp in air_v else np.zeros(len(sites), bool) for sp in species_list], -1)
     out["masked_note"] = masked_notes(air.value.attrs, sites, species_list)
     out["masked_runs"] = masked_runs(air.value.attrs, sites, species_list)
+    # the stretches a sampler ran without a species' values (the input notes' "air
+    # RDG-F1: NH3 without a value in 4 weeks..."), named per period by dry_components
+    out["species_gap_runs"] = species_gap_runs(air.value)
     # the variables a Vd reads that a site's met has in no hour (the met note's "has a
     # value in 0 (none)"): named where the site has no Vd at all
     out["met_without"] = without_value(met.value, sites, VD_INPUTS)

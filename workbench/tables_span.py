@@ -88,7 +88,7 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
     tot = t[(t["pathway"] == "total") & (t["species"] == "all")]
     passes = (tot["passes"].astype(bool) if "passes" in tot
               else ~tot["status"].isin(["flagged", "missing"]))
-    left_out = _left_out_notes(tot, passes)
+    left_out = _left_out_notes(tot, passes, t)
     fewer = pd.Series("", index=tot.index, dtype=object)
     if "missing_components" in tot and len(tot):
         by3 = ["site", "receptor", "element"]
@@ -173,16 +173,76 @@ def span_table(year_table: pd.DataFrame) -> pd.DataFrame:
 
 
 #: The words of a span row's note on a year left out for failing completeness, with
-#: budget.csv's ``completeness_failure`` of that year's total (or its status).
+#: every criterion its components fail (:func:`_year_failures`), or budget.csv's
+#: ``completeness_failure`` of that year's total (or its status).
 LEFT_OUT_NOTE = "{year} left out: {why}"
 
+#: The completeness criteria a component's note may hold beside its first one
+#: (``completeness_failure``), each with its measured share and minimum: those of the
+#: wet chain (:func:`workbench.wet.deposition.wet_deposition`), the share of the rain
+#: with a valid ion (:func:`workbench.budgetstatus.wet_mean_status`) and of the dry
+#: components (:func:`workbench.budgetstatus_dry.dry_failure_words`, whose "a season
+#: without concentrations" stands in the note).  A pattern ends at the parenthesis
+#: closing the share, so that what follows it (the samples a coverage misses) is left
+#: to the yearly row.
+CRITERIA_PATTERN = (
+    r"((?:gauge record|sample coverage|valid-chemistry precipitation|air coverage"
+    r"|hours with a known flux) below minimum \([^()]*\)"
+    r"|too few valid samples \([^()]*\)"
+    r"|\w+ valid for [0-9.]+ % of the precipitation only \(minimum [^()]*\)"
+    r"|a season without concentrations)")
 
-def _left_out_notes(tot: pd.DataFrame, passes: pd.Series) -> pd.Series:
+
+def _year_failures(t: pd.DataFrame, out: pd.DataFrame) -> pd.Series:
+    """Every completeness criterion the components of each year left out fail, by the
+    species failing the same ones, per row of `out` (the totals of those years):
+    "SO4: gauge record below minimum (1.8 % of the period; minimum 90 %), sample
+    coverage below minimum (1.8 % of the period; minimum 90 %); SO2 pSO4: air coverage
+    below minimum (1.8 % of the period; minimum 75 %), a season without
+    concentrations" ('' where no component row says one: the total's words stand).
+
+    Before, the span row named the first criterion of the first failing component
+    only (the gauge record, not the same year's 1.8 % air coverage).  String
+    operations over the component rows of the years left out, no loop over rows."""
+    by = ["site", "receptor", "element", "year"]
+    if "completeness_failure" not in t or out.empty:
+        return pd.Series("", index=out.index, dtype=object)
+    comp = t[(t["pathway"].isin(["wet", "dry"])) & (t["species"] != "all")]
+    comp = comp.merge(out[by].drop_duplicates(), on=by)
+    first = comp["completeness_failure"].fillna("").astype(str)
+    comp = comp[first != ""]
+    if comp.empty:
+        return pd.Series("", index=out.index, dtype=object)
+    # the first criterion, then those the note adds (each once, in order)
+    text = (comp["completeness_failure"].astype(str) + " | "
+            + (comp["note"].fillna("").astype(str) if "note" in comp else ""))
+    found = text.str.extractall(CRITERIA_PATTERN)[0].rename("_c").reset_index(level=1)
+    head = comp["completeness_failure"].astype(str).rename("_c").to_frame().assign(match=-1)
+    crit = pd.concat([head, found]).sort_values("match", kind="stable")
+    crit = crit.reset_index().drop_duplicates(["index", "_c"])
+    per = crit.groupby("index", sort=False)["_c"].agg(", ".join)
+    comp = comp.assign(_c=per.reindex(comp.index).to_numpy(), _o=np.arange(len(comp)))
+    # the species failing the same criteria, in component order
+    grouped = (comp.groupby(by + ["_c"], sort=False)
+               .agg(_s=("species", " ".join), _o=("_o", "min")).reset_index()
+               .sort_values("_o", kind="stable"))
+    grouped["_t"] = grouped["_s"] + ": " + grouped["_c"]
+    words = grouped.groupby(by, sort=False)["_t"].agg("; ".join)
+    return pd.Series(words.reindex(pd.MultiIndex.from_frame(out[by])).fillna("")
+                     .to_numpy(dtype=object), index=out.index)
+
+
+def _left_out_notes(tot: pd.DataFrame, passes: pd.Series, t: pd.DataFrame | None = None
+                    ) -> pd.Series:
     """Per (site, receptor, element), why each year whose total fails completeness is
     left out of the span mean: "2021 left out: fails completeness (SO4: gauge record
-    below minimum (1.8 % of the period; minimum 90 %))", "2019 left out: missing";
-    '; '-joined in year order.  Before, years_excluded named the year and no note
-    said why.  The loop runs over the excluded site-years, never over hours."""
+    below minimum (1.8 % of the period; minimum 90 %), sample coverage below minimum
+    (...); SO2 pSO4: air coverage below minimum (1.8 % of the period; minimum 75 %),
+    ...)" (every criterion the components of `t`, the yearly rows, fail:
+    :func:`_year_failures`), "2019 left out: missing"; '; '-joined in year order.
+    Before, years_excluded named the year and no note said why, and then the note
+    named the first criterion only.  The loop runs over the excluded site-years, never
+    over hours."""
     by = ["site", "receptor", "element"]
     out = tot.loc[~passes.to_numpy(), by + ["year", "status"]
                   + (["completeness_failure"] if "completeness_failure" in tot else [])]
@@ -190,6 +250,8 @@ def _left_out_notes(tot: pd.DataFrame, passes: pd.Series) -> pd.Series:
         return pd.Series(dtype=object, index=pd.MultiIndex.from_tuples([], names=by))
     why = (out["completeness_failure"].fillna("").astype(str)
            if "completeness_failure" in out else pd.Series("", index=out.index))
+    every = _year_failures(t, out) if t is not None else pd.Series("", index=out.index)
+    why = why.where(every == "", every)
     status = out["status"].astype(str)
     words = np.where(why != "", "fails completeness (" + why + ")",
                      np.where(status == "missing", "missing", "fails completeness"))

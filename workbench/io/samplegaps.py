@@ -201,6 +201,24 @@ def species_gap_notes(ds, role: str = "air") -> list[str]:
         E.g. ``air RDG-F1: NH3 without a value in 4 weeks of its samples (1 gap;
         longest 4 weeks from 2020-06-04 14:00 to 2020-07-02 14:00 UTC)``.
     """
+    out = []
+    for k, _, sp, gaps in species_gap_runs(ds):
+        secs = np.array([(g1 - g0) / np.timedelta64(1, "s") for g0, g1 in gaps])
+        j = int(np.argmax(secs))
+        out.append(f"{role} {k}: {sp} without a value in {_weeks(secs.sum())} of its "
+                   f"samples ({len(gaps)} gap{'' if len(gaps) == 1 else 's'}; longest "
+                   f"{_weeks(secs[j])} from {_day(gaps[j][0])} to {_day(gaps[j][1])} "
+                   "UTC)")
+    return out
+
+
+def species_gap_runs(ds) -> list:
+    """The stretches of :func:`species_gap_notes`: (sampler, site, species, gaps), the
+    gaps in time order, each (first instant, last instant) [UTC]; a sampler without
+    ``sampler_id`` goes by its site's name.
+
+    The loop runs over the samplers and species (a few), never over rows or hours.
+    """
     if ds is None or not ds.sizes.get(next(iter(ds["site"].dims), ""), 0):
         return []
     site = ds["site"].values.astype(str)
@@ -230,12 +248,6 @@ def species_gap_notes(ds, role: str = "air") -> list[str]:
             other = (site == s_id) & ~m & has[sp]
             gaps = [g for g in gaps if _covered(g, start[m], end[m])
                     and not _covered(g, start[other], end[other])]
-            if not gaps:
-                continue
-            secs = np.array([(g1 - g0) / np.timedelta64(1, "s") for g0, g1 in gaps])
-            j = int(np.argmax(secs))
-            out.append(f"{role} {k}: {sp} without a value in {_weeks(secs.sum())} of its "
-                       f"samples ({len(gaps)} gap{'' if len(gaps) == 1 else 's'}; longest "
-                       f"{_weeks(secs[j])} from {_day(gaps[j][0])} to {_day(gaps[j][1])} "
-                       "UTC)")
+            if gaps:
+                out.append((str(k), str(s_id), sp, gaps))
     return out
