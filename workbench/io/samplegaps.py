@@ -28,6 +28,27 @@ def _weeks(seconds: float) -> str:
     return f"{w:g} week{'' if w == 1 else 's'}"
 
 
+def _sampler_rows(ds):
+    """The rows' site, start, end [UTC] and sampler key (``sampler_id``, or the site's
+    name where it has none) as numpy arrays; None for no Dataset or no row."""
+    if ds is None or not ds.sizes.get(next(iter(ds["site"].dims), ""), 0):
+        return None
+    site = ds["site"].values.astype(str)
+    sampler = (ds["sampler_id"].values.astype(str) if "sampler_id" in ds
+               else np.full(site.shape, ""))
+    return site, ds["start"].values, ds["end"].values, np.where(sampler == "", site, sampler)
+
+
+def _gap_words(gaps) -> tuple[str, str]:
+    """The gaps' total length in words and ``(N gaps; longest X from A to B UTC)``;
+    `gaps` a non-empty list of (first instant, last instant) [UTC]."""
+    secs = np.array([(g1 - g0) / np.timedelta64(1, "s") for g0, g1 in gaps])
+    j = int(np.argmax(secs))
+    return _weeks(secs.sum()), (f"({len(gaps)} gap{'' if len(gaps) == 1 else 's'}; longest "
+                                f"{_weeks(secs[j])} from {_day(gaps[j][0])} to "
+                                f"{_day(gaps[j][1])} UTC)")
+
+
 def interval_gaps(start, end, min_gap):
     """The gaps between sampling intervals [start, end) (overlaps merged).
 
@@ -137,13 +158,10 @@ def sampling_gap_notes(ds, role: str) -> list[str]:
         E.g. ``air v18-F1: 10 weeks without samples (1 gap; longest 10 weeks from
         2017-08-03 14:00 UTC)``.
     """
-    if ds is None or not ds.sizes.get(next(iter(ds["site"].dims), ""), 0):
+    rows = _sampler_rows(ds)
+    if rows is None:
         return []
-    site = ds["site"].values.astype(str)
-    start, end = ds["start"].values, ds["end"].values
-    sampler = (ds["sampler_id"].values.astype(str) if "sampler_id" in ds
-               else np.full(site.shape, ""))
-    key = np.where(sampler == "", site, sampler)
+    site, start, end, key = rows
     lo, hi = start.min(), end.max()
     slack = np.timedelta64(EDGE_SLACK_DAYS, "D")
     out = []
@@ -166,11 +184,8 @@ def sampling_gap_notes(ds, role: str) -> list[str]:
                     if not _covered(g, start[other], end[other])]
             if not gaps:
                 continue
-            secs = np.array([(g1 - g0) / np.timedelta64(1, "s") for g0, g1 in gaps])
-            j = int(np.argmax(secs))
-            out.append(f"{role} {k}: {_weeks(secs.sum())} without samples ({len(gaps)} gap"
-                       f"{'' if len(gaps) == 1 else 's'}; longest {_weeks(secs[j])} from "
-                       f"{_day(gaps[j][0])} to {_day(gaps[j][1])} UTC)")
+            total, words = _gap_words(gaps)
+            out.append(f"{role} {k}: {total} without samples {words}")
     return out
 
 
@@ -203,12 +218,8 @@ def species_gap_notes(ds, role: str = "air") -> list[str]:
     """
     out = []
     for k, _, sp, gaps in species_gap_runs(ds):
-        secs = np.array([(g1 - g0) / np.timedelta64(1, "s") for g0, g1 in gaps])
-        j = int(np.argmax(secs))
-        out.append(f"{role} {k}: {sp} without a value in {_weeks(secs.sum())} of its "
-                   f"samples ({len(gaps)} gap{'' if len(gaps) == 1 else 's'}; longest "
-                   f"{_weeks(secs[j])} from {_day(gaps[j][0])} to {_day(gaps[j][1])} "
-                   "UTC)")
+        total, words = _gap_words(gaps)
+        out.append(f"{role} {k}: {sp} without a value in {total} of its samples {words}")
     return out
 
 
@@ -219,13 +230,10 @@ def species_gap_runs(ds) -> list:
 
     The loop runs over the samplers and species (a few), never over rows or hours.
     """
-    if ds is None or not ds.sizes.get(next(iter(ds["site"].dims), ""), 0):
+    rows = _sampler_rows(ds)
+    if rows is None:
         return []
-    site = ds["site"].values.astype(str)
-    start, end = ds["start"].values, ds["end"].values
-    sampler = (ds["sampler_id"].values.astype(str) if "sampler_id" in ds
-               else np.full(site.shape, ""))
-    key = np.where(sampler == "", site, sampler)
+    site, start, end, key = rows
     species = [k for k in ds.data_vars if "quantity" in ds[k].attrs]
     has = {sp: (np.isfinite(np.asarray(ds[sp].values, float))
                 | (np.asarray(ds[f"{sp}_censored"].values, bool)
