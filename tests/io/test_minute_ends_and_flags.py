@@ -1,0 +1,69 @@
+"""Field slips of an audit (docs/data_formats.md, "Ends at minute 59, a UTC period
+written with Z, a coastal flag in coast_distance_km"): an end written inclusive to the
+minute, a scenario period in UTC written with a trailing Z, and a catalogue writing
+coast_distance_km as a 0/1 flag.  Invented sites "alpha" and "beta" of tiny_inputs.
+
+Each case was read before as a silent wrong number or a refusal; the tests say which.
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from tiny_inputs import AIR, PRECIP
+from workbench.io import read_air, read_precipitation
+
+
+def _hourly_air(ends):
+    rows = [f"alpha,2020-01-07T{h:02d}:00,{e},fp1,2.0" for h, e in enumerate(ends)]
+    return ("# reference_state: ambient\nsite,start,end,sampler_id,SO2 [ug/m3]\n"
+            + "\n".join(rows) + "\n")
+
+
+def test_hourly_air_rows_ending_at_minute_59_cover_the_whole_hour(write, cat):
+    # before: 59-minute periods (98.3 % of each hour) with a minute's gap between rows
+    ends = [f"2020-01-07T{h:02d}:59" for h in range(4)]
+    ds, led = read_air(write("air.csv", _hourly_air(ends)), cat)
+    length = (ds["end"].values - ds["start"].values) / np.timedelta64(1, "m")
+    assert length.tolist() == [60.0] * 4
+    assert (ds["start"].values[1:] == ds["end"].values[:-1]).all()      # no gaps
+    note = [n for n in led.notes if "minute 59" in n]
+    assert note == ["air.csv: ends at minute 59 in 'end' (00:00 to 00:59, the end minute "
+                    "included) read as the next whole hour (00:00 to 01:00): 4 rows "
+                    "(lines 3-6); write the end as the next hour, 01:00, to silence this "
+                    "note"], led.notes
+
+
+def test_only_the_rows_ending_at_minute_59_are_moved_and_counted(write, cat):
+    ends = ["2020-01-07T00:59", "2020-01-07T02:00", "2020-01-07T02:30"]
+    ds, led = read_air(write("air.csv", _hourly_air(ends)), cat)
+    # alpha is UTC+1: a naive 00:00 is 23:00 UTC
+    assert ds["end"].values.astype("datetime64[m]").astype(str).tolist() == [
+        "2020-01-07T00:00", "2020-01-07T01:00", "2020-01-07T01:30"]
+    assert [n for n in led.notes if "minute 59" in n][0].endswith(
+        ": 1 row (line 3); write the end as the next hour, 01:00, to silence this note")
+
+
+def test_a_59_minute_row_not_on_the_hour_is_read_as_written(write, cat):
+    # an end at :59 of a period that is no whole number of hours less a minute
+    text = _hourly_air(["2020-01-07T00:59"]).replace("T00:00,", "T00:30,")
+    ds, led = read_air(write("air.csv", text), cat)
+    assert (ds["end"].values - ds["start"].values) / np.timedelta64(1, "m") == 29
+    assert not [n for n in led.notes if "minute 59" in n]
+
+
+def test_weekly_samples_ending_at_0859_share_the_rule(write, cat):
+    # the precipitation reader shares the interval code: 09:00 to 08:59 a week later
+    text = PRECIP.replace("-14T09:00,w1", "-14T08:59,w1").replace(
+        "-21T09:00,w1", "-21T08:59,w1").replace("-28T09:00,w1", "-28T08:59,w1")
+    ds, led = read_precipitation(write("p.csv", text), cat)
+    alpha = ds["site"].values == "alpha"
+    days = (ds["end"].values - ds["start"].values)[alpha] / np.timedelta64(1, "D")
+    assert days.tolist() == [7.0, 7.0, 7.0]
+    assert any(n.startswith("p.csv: ends at minute 59 in 'end'") and ": 3 rows (lines 2-4)"
+               in n for n in led.notes), led.notes
+
+
+def test_files_ending_on_the_hour_have_no_note(files, cat):
+    _, led = read_air(files["air"], cat)
+    assert not [n for n in led.notes if "minute 59" in n]
+    assert AIR.count("T09:00") == 6
