@@ -8,9 +8,12 @@ Each case was read before as a silent wrong number or a refusal; the tests say w
 from __future__ import annotations
 
 import numpy as np
+import pytest
 
-from tiny_inputs import AIR, PRECIP
+from tiny_inputs import AIR, PRECIP, SITES
+from workbench.errors import ScenarioError
 from workbench.io import read_air, read_precipitation
+from workbench.scenario import load_scenario
 
 
 def _hourly_air(ends):
@@ -67,3 +70,31 @@ def test_files_ending_on_the_hour_have_no_note(files, cat):
     _, led = read_air(files["air"], cat)
     assert not [n for n in led.notes if "minute 59" in n]
     assert AIR.count("T09:00") == 6
+
+
+# ------------------------------------------------------------ a UTC period with Z
+def _scenario(tmp_path, body):
+    (tmp_path / "s.toml").write_text(SITES)
+    p = tmp_path / "sc.toml"
+    p.write_text('[inputs]\nsites = "s.toml"\n' + body)
+    return p
+
+
+@pytest.mark.parametrize("start, end, read", [
+    ('"2021-01-01T00:00Z"', '"2022-01-01T00:00Z"', ("2021-01-01T00:00", "2022-01-01T00:00")),
+    ('"2021-01-01 06:30:15Z"', '"2021-07-01T02:00+02:00"',
+     ("2021-01-01T06:30:15", "2021-07-01T00:00")),
+    ("2021-01-01T00:00:00Z", "2021-07-01T00:00:00+00:00",      # unquoted: before too
+     ("2021-01-01T00:00", "2021-07-01T00:00"))])
+def test_a_period_in_utc_written_with_z_is_read(tmp_path, start, end, read):
+    # before: "not a date: got '2021-01-01T00:00Z', expected ... in UTC without offset"
+    sc = load_scenario(_scenario(tmp_path, f"[period]\nstart = {start}\nend = {end}\n"))
+    assert (sc.data["period"]["start"], sc.data["period"]["end"]) == read
+
+
+def test_a_zoned_period_that_is_no_date_is_still_refused(tmp_path):
+    p = _scenario(tmp_path, '[period]\nstart = "2021-13-01T00:00Z"\n')
+    with pytest.raises(ScenarioError) as exc:
+        load_scenario(p)
+    assert f"{p}, line 4, column 'period.start': not a date: got " \
+           "'2021-13-01T00:00Z'" in str(exc.value)
