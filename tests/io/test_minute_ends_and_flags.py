@@ -12,7 +12,8 @@ import pytest
 
 from tiny_inputs import AIR, PRECIP, SITES
 from workbench.errors import ScenarioError
-from workbench.io import read_air, read_precipitation
+from workbench.cli import main
+from workbench.io import read_air, read_precipitation, read_sites
 from workbench.scenario import load_scenario
 
 
@@ -98,3 +99,44 @@ def test_a_zoned_period_that_is_no_date_is_still_refused(tmp_path):
         load_scenario(p)
     assert f"{p}, line 4, column 'period.start': not a date: got " \
            "'2021-13-01T00:00Z'" in str(exc.value)
+
+
+# ------------------------------------------------------------ a coastal flag as a distance
+def _catalogue(tmp_path, values):
+    text = SITES
+    for sid, v in zip(("alpha", "beta"), values):
+        if v is not None:
+            text = text.replace(f'id = "{sid}"\n', f'id = "{sid}"\ncoast_distance_km = {v}\n')
+    p = tmp_path / "sites.toml"
+    p.write_text(text)
+    return read_sites(p)
+
+
+@pytest.mark.parametrize("values, shown", [((0, 1), "alpha 0, beta 1"),
+                                           ((1, None), "alpha 1"), ((0.0, 0), "alpha 0, beta 0")])
+def test_a_catalogue_of_only_0_and_1_coast_distances_is_noted(tmp_path, values, shown):
+    # before: read as distances without a word; a flag 0 for "inland" is on the coast
+    cat = _catalogue(tmp_path, values)
+    note = [n for n in cat.notes if "coast_distance_km is 0 or 1" in n]
+    assert len(note) == 1, cat.notes
+    assert note[0].startswith("sites.toml, line ") and f"({shown}): read as distances in " \
+           "km (0 is on the coast;" in note[0] and "a yes/no coastal flag? write each " \
+           "site's distance to the sea coast in km" in note[0], note
+    assert cat["alpha"].coast_distance_km == values[0]       # used as written
+
+
+@pytest.mark.parametrize("values", [(0, 12.5), (None, None), (3, 1)])
+def test_coast_distances_in_km_get_no_flag_note(tmp_path, values):
+    assert not [n for n in _catalogue(tmp_path, values).notes if "coast_distance" in n]
+
+
+def test_workbench_check_prints_the_coastal_flag_note(tmp_path, capsys):
+    import test_budget as tb
+    sc = tb._write(tmp_path)
+    sites = tmp_path / "sites.toml"
+    sites.write_text(sites.read_text().replace('id = "alpha"\n',
+                                               'id = "alpha"\ncoast_distance_km = 1\n'))
+    assert main(["check", str(sc)]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "sites.toml, line 3: coast_distance_km is 0 or 1 at every site that gives it " \
+           "(alpha 1): read as distances in km" in out, out
