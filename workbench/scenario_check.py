@@ -224,13 +224,17 @@ def _check_grid(grid: dict, given, path, lines):
 
 #: A time of 24:00 (the end of the day), as the readers of the sample files take it.
 _END_OF_DAY = re.compile(r"^\s*(\d{4}-\d\d-\d\d)[T ]24:00(:00)?\s*$")
+#: A date-time with a zone: a trailing ``Z`` (UTC) or an offset ``+hh:mm``.
+_ZONED = re.compile(r"^\s*\d{4}-\d\d-\d\d[T ]\d\d:\d\d(:\d\d(\.\d+)?)?"
+                    r"(Z|[+-]\d\d:?\d\d)\s*$")
 
 
 def _period_text(period: dict) -> dict:
     """``[period]`` with a TOML date or date-time (``end = 2021-12-31``, unquoted) as the
     ISO text the quoted form gives (``"2021-12-31"``): both read alike. A date-time with
     an offset is taken to UTC; ``"2021-12-31T24:00"`` (the end of that day) is
-    ``"2022-01-01T00:00"``, as the sample files' 24:00 labels are read. The value keeps
+    ``"2022-01-01T00:00"``, as the sample files' 24:00 labels are read; a quoted time with
+    a trailing ``Z`` (UTC) or an offset is taken to UTC too. The value keeps
     its meaning: a date is its first instant (``end`` exclusive; docs/scenario.md)."""
     import datetime as _dt
     out = dict(period)
@@ -243,6 +247,16 @@ def _period_text(period: dict) -> dict:
                                    else "auto")
         elif isinstance(v, _dt.date):
             out[key] = v.isoformat()
+        elif isinstance(v, str) and _ZONED.match(v):
+            # "2021-01-01T00:00Z" (Z is UTC) or "...+01:00": taken to UTC as the
+            # unquoted form is; before, a quoted Z was refused ("not a date")
+            try:
+                t = _dt.datetime.fromisoformat(v.strip())
+            except ValueError:
+                continue                     # not a date: said by _check_period
+            t = t.astimezone(_dt.timezone.utc).replace(tzinfo=None)
+            out[key] = t.isoformat(timespec="minutes" if not (t.second or t.microsecond)
+                                   else "auto")
         elif isinstance(v, str):             # "2021-12-31T24:00": the end of that day
             m = _END_OF_DAY.match(v)
             if m:
@@ -274,8 +288,9 @@ def _check_period(period: dict, path, lines):
         except (ValueError, TypeError, Warning):
             raise ScenarioError("not a date", file=path, line=_line_of(lines, "period", key),
                                 column=f"period.{key}", value=v,
-                                expected="an ISO 8601 date or time in UTC without offset, "
-                                "e.g. 2020-01-01 or 2020-01-01T00:00" + _date_hint(v)) from None
+                                expected="an ISO 8601 date or time in UTC, e.g. 2020-01-01 "
+                                "or 2020-01-01T00:00 (or 2020-01-01T00:00Z)"
+                                + _date_hint(v)) from None
         times[key] = t
     if len(times) == 2 and not times["end"] > times["start"]:
         raise ScenarioError("period end not after its start", file=path,

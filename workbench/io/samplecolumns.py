@@ -18,6 +18,7 @@ from ..units import concentration_kind, element_basis_header, to_amount
 from . import plausible as _plausible
 from .common import check_intervals, check_sites, join_reasons, reason_where, unit_error
 from .table import RawTable
+from .tabletimes import minute_end_note, minute_ends
 
 
 #: Headers shown for missing required columns of the sample and air files.
@@ -366,6 +367,14 @@ def _interval_table(path, catalogue, required):
     off = catalogue.utc_offsets(sites)
     start, end = tab.times("start", off), tab.times("end", off)
     check_intervals(tab, start, end)
+    # an end inclusive to the minute (00:00 to 00:59): the period ends on the hour, with
+    # a note; before, a 59-minute period and a minute's gap to the next row
+    late = minute_ends(tab.frame["end"], start, end)
+    if late.any():
+        end = np.where(late, end + np.timedelta64(60, "s"), end)
+        tab.minute_end_note = minute_end_note(tab.path.name,
+                                              tab.raw_headers.get("end", "end"),
+                                              tab.lines[late])
     samplers = tab.text("sampler_id") if tab.has("sampler_id") else np.full(n, "", object)
     return tab, n, sites, start, end, samplers
 

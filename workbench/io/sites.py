@@ -276,8 +276,44 @@ def read_sites(path) -> SiteCatalogue:
         if zone:
             notes.append(zone)
             zone_notes[sid] = zone
+    flag = coast_flag_note(path.name, [(s.id, s.coast_distance_km) for s in sites],
+                           [_key_line(lines, starts, k, "coast_distance_km")
+                            for k in range(len(sites))])
+    if flag:
+        notes.append(flag)
     key_lines = {(str(t["id"]), key): _key_line(lines, starts, k, key)
                  for k, t in enumerate(tables) for key in PLACED_KEYS if key in t}
     return SiteCatalogue(sites, path, notes, zone_notes, key_lines)
+
+
+def coast_flag_note(file_name: str, given, lines) -> str:
+    """The note of a catalogue whose ``coast_distance_km`` is 0 or 1 at every site that
+    gives it (a yes/no coastal flag?), or "".  A note, not an error: 0 and 1 km are
+    distances; both are read as written (0: on the coast).
+
+    Parameters
+    ----------
+    file_name : str
+    given : list of (str, float or None)
+        Site id and its ``coast_distance_km`` [km] (None: not given).
+    lines : list of int or None
+        The line of each site's key.
+
+    >>> coast_flag_note("s.toml", [("a", 1.0), ("b", None), ("c", 0.0)], [9, None, 30])
+    "s.toml, line 9: coast_distance_km is 0 or 1 at every site that gives it (a 1, c 0): read as distances in km (0 is on the coast; below [dry] coastal_distance, 50 km by default, a site takes the coastal particle split); a yes/no coastal flag? write each site's distance to the sea coast in km, or leave the key out at an inland site (the inland split)"
+    >>> coast_flag_note("s.toml", [("a", 1.0), ("c", 12.5)], [9, 30])
+    ''
+    """
+    have = [(sid, v, ln) for (sid, v), ln in zip(given, lines) if v is not None]
+    if not have or any(v not in (0, 1) for _, v, _ in have):
+        return ""
+    shown = ", ".join(f"{sid} {v:g}" for sid, v, _ in have[:6]) + (
+        f", ... ({len(have) - 6} more)" if len(have) > 6 else "")
+    where = f"{file_name}, line {have[0][2]}" if have[0][2] else file_name
+    return (f"{where}: coast_distance_km is 0 or 1 at every site that gives it ({shown}): "
+            "read as distances in km (0 is on the coast; below [dry] coastal_distance, "
+            "50 km by default, a site takes the coastal particle split); a yes/no coastal "
+            "flag? write each site's distance to the sea coast in km, or leave the key "
+            "out at an inland site (the inland split)")
 
 

@@ -113,6 +113,52 @@ def order_witness(texts: pd.Series):
     return k, str(texts.iloc[k]).strip(), "day first" if day[k] else "month first"
 
 
+#: An end written at minute 59 of an hour, without seconds or with 00 (a logger's or a
+#: spreadsheet's end inclusive to the minute: 00:00 to 00:59 for the hour 00-01).
+_MINUTE_59 = re.compile(r"\d{4}-\d\d-\d\d[T ]\d\d:59(?::00(?:\.0+)?)?(?:Z|[+-]\d\d(?::?\d\d)?)?")
+
+
+def minute_ends(end_text: pd.Series, start, end) -> np.ndarray:
+    """True for the rows whose end is written at minute 59 of an hour and whose length is
+    a whole number of hours less one minute: an end inclusive to the minute, read as
+    ending one minute later, on the hour [bool].
+
+    Parameters
+    ----------
+    end_text : pandas.Series of str
+        The end labels as written.
+    start, end : ndarray of datetime64
+        The parsed start and end (UTC).
+
+    >>> t = np.array(["2021-01-01T00:00", "2021-01-01T01:00", "2021-01-01T02:00"],
+    ...              dtype="datetime64[ns]")
+    >>> e = np.array(["2021-01-01T00:59", "2021-01-01T01:30", "2021-01-08T01:59"],
+    ...              dtype="datetime64[ns]")
+    >>> minute_ends(pd.Series(["2021-01-01T00:59", "2021-01-01T01:30",
+    ...                        "2021-01-08T01:59"]), t, e).tolist()
+    [True, False, True]
+    """
+    written = end_text.astype(str).str.strip().str.fullmatch(_MINUTE_59).to_numpy(dtype=bool)
+    length = (np.asarray(end) - np.asarray(start)).astype("timedelta64[s]").astype(np.int64)
+    return written & (length > 0) & (length % 3600 == 3540)
+
+
+def minute_end_note(file_name: str, column: str, lines) -> str:
+    """The ledger note of the rows whose end at minute 59 was read as the next whole hour
+    ("" for none), with the count of the rows and their lines.
+
+    >>> minute_end_note("air.csv", "end", [3, 4, 5])
+    "air.csv: ends at minute 59 in 'end' (00:00 to 00:59, the end minute included) read as the next whole hour (00:00 to 01:00): 3 rows (lines 3-5); write the end as the next hour, 01:00, to silence this note"
+    """
+    v = np.unique(np.asarray(lines, dtype=np.int64))
+    if not len(v):
+        return ""
+    return (f"{file_name}: ends at minute 59 in {column!r} (00:00 to 00:59, the end "
+            "minute included) read as the next whole hour (00:00 to 01:00): "
+            f"{len(v)} row{'s' * (len(v) != 1)} ({compact_lines(v)}); write the end as "
+            "the next hour, 01:00, to silence this note")
+
+
 def end_of_day_note(file_name: str, columns, lines) -> str:
     """The ledger note of the columns whose 24:00 labels were read as the next day's 00:00
     ("" for none), with the count of the rows and their lines (:func:`.ledger.compact_lines`).
