@@ -1,0 +1,51 @@
+"""The apps behind the notebooks say why a number of a period rests on a gap, with the
+reasons budget.csv already gives (docs/budget.md, "Gaps in what a user reads").
+
+Found on the invented network of benchmarks/analyst_network.py (2 sites x 2016) with
+the gaps of tests/test_met_gap_periods.py planted: six weeks without wind speed at v02
+(its dry rows' flux known for 90.6 % of the year) and a month of NH3 blank in the
+samples of v01's filter pack while it ran.  Before, the network overview's table of
+annual totals read "complete" and "passes" for both, with no word of either gap
+anywhere in the app.
+"""
+import sys
+import warnings
+from pathlib import Path
+
+import pytest
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+from test_met_gap_periods import WIND_GAP, _blank_nh3, _blank_wind  # noqa: E402
+from tiny_inputs import make_analyst_network  # noqa: E402
+
+
+@pytest.fixture(scope="module")
+def gap_network(tmp_path_factory):
+    scen = make_analyst_network(tmp_path_factory.mktemp("appgaps") / "in", n_sites=2,
+                                years=1, imperfections={})
+    assert _blank_wind(scen.parent / "met.csv.gz", "v02", *WIND_GAP) == 1008
+    assert _blank_nh3(scen.parent / "air.csv", "v01", "2016-06") == 5
+    return scen
+
+
+@pytest.fixture(scope="module")
+def overview(gap_network):
+    from workbench.ui.apps_more import NetworkOverview
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        return NetworkOverview.from_scenario(gap_network)
+
+
+def test_network_totals_name_the_gaps_of_the_year(overview):
+    t = overview.totals().droplevel("receptor")      # one receptor a site
+    # v02: the S total complete on 90.6 % of the year with a flux; the note says why
+    assert t.loc[("v02", "2016"), "S status"] == "complete"
+    s_note = t.loc[("v02", "2016"), "S note"]
+    assert "SO2 pSO4: flux known for part of the sampled hours only (90.6 %" in s_note
+    assert "wind speed without a value in 1008 h" in s_note
+    # v01: its N total rests on NH3 blank for five weekly samples: sampler and dates
+    n_note = t.loc[("v01", "2016"), "N note"]
+    assert "NH3: 5.9 weeks without a usable air sample" in n_note
+    assert "NH3 blank in the samples of v01-F1 from 2016-06-02T14:00" in n_note
+    # a total with no gap has no note (v01's S: every hour and sample there)
+    assert t.loc[("v01", "2016"), "S note"] == ""
