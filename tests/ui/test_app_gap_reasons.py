@@ -49,3 +49,28 @@ def test_network_totals_name_the_gaps_of_the_year(overview):
     assert "NH3 blank in the samples of v01-F1 from 2016-06-02T14:00" in n_note
     # a total with no gap has no note (v01's S: every hour and sample there)
     assert t.loc[("v01", "2016"), "S note"] == ""
+
+
+def _loads_explorer(scenario, site):
+    from workbench.ui.apps_analysis import CriticalLoadsExplorer
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        return CriticalLoadsExplorer.from_scenario(scenario, site=site)
+
+
+def test_critical_loads_view_names_the_gaps_behind_its_totals(gap_network):
+    """Before, the exceedance of v02's 2016 (its dry flux on 90.6 % of the year, six
+    weeks without wind speed) and of v01's (NH3 blank for five weekly samples) read as
+    those of whole years: no status note (both totals complete), no word of the gaps."""
+    app = _loads_explorer(gap_network, "v02")
+    assert app.year_w.value == "2016"
+    text = app.text_w.value
+    assert "Gaps behind the totals of 2016 (budget.csv notes): S total (complete): " in text
+    assert "wind speed without a value in 1008 h" in text
+    assert "flux known for part of the sampled hours only (90.6 %" in text
+    app = _loads_explorer(gap_network, "v01")
+    text = app.text_w.value
+    assert "N total (complete): NH3: 5.9 weeks without a usable air sample" in text
+    assert "NH3 blank in the samples of v01-F1 from 2016-06-02T14:00" in text
+    # v01's S total has no gap: not named
+    assert "S total (" not in text
