@@ -74,3 +74,17 @@ def test_critical_loads_view_names_the_gaps_behind_its_totals(gap_network):
     assert "NH3 blank in the samples of v01-F1 from 2016-06-02T14:00" in text
     # v01's S total has no gap: not named
     assert "S total (" not in text
+
+
+def test_site_explorer_hover_names_the_met_gap(gap_network):
+    """Holds what was right: the site explorer's budget figure gives each dry
+    component's note in its hover (v02's S total reads complete in the change line)."""
+    from workbench.ui.apps import SiteExplorer
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        app = SiteExplorer.from_scenario(gap_network, site="v02")
+    hover = {tr.get("name"): " ".join(map(str, tr.get("customdata") or ()))
+             for tr in app._figure("budget")["data"]}
+    so2 = hover["dry SO2"]
+    assert "wind speed without a value in 1008 h" in so2
+    assert "90.6 % of the period with a flux" in so2.replace("<br>", " ")
