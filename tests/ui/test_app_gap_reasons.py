@@ -88,3 +88,44 @@ def test_site_explorer_hover_names_the_met_gap(gap_network):
     so2 = hover["dry SO2"]
     assert "wind speed without a value in 1008 h" in so2
     assert "90.6 % of the period with a flux" in so2.replace("<br>", " ")
+
+
+def _drop_year(path, site, year):
+    """Remove every row of `site` whose start (or time) falls in `year`."""
+    import gzip
+    opener = gzip.open if path.suffix == ".gz" else open
+    with opener(path, "rt", encoding="utf-8") as f:
+        lines = f.readlines()
+    kept = [ln for ln in lines if ln.startswith("#") or not (
+        ln.split(",", 2)[0] == site and ln.split(",", 2)[1].startswith(str(year)))]
+    with opener(path, "wt", encoding="utf-8") as f:
+        f.writelines(kept)
+    return len(lines) - len(kept)
+
+
+@pytest.fixture(scope="module")
+def year_removed(tmp_path_factory):
+    """One invented site over 2016-2019, its year 2018 removed from every file."""
+    scen = make_analyst_network(tmp_path_factory.mktemp("yearout") / "in", n_sites=1,
+                                years=4, imperfections={})
+    for name in ("air.csv", "precipitation.csv", "met.csv.gz"):
+        assert _drop_year(scen.parent / name, "v01", 2018) > 0
+    return scen
+
+
+def test_network_trend_names_the_year_it_leaves_out(year_removed):
+    """Before, the trend column said "3 complete years" and nothing of 2018, which
+    the trend leaves out (its totals fail completeness); trends.csv's note names it."""
+    from workbench.ui.apps_more import NetworkOverview
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        net = NetworkOverview.from_scenario(year_removed)
+    row = net.analysis.set_index("site").loc["v01"]
+    for el in ("S", "N"):
+        assert "3 complete years" in row[f"{el}_trend"]
+        assert "years left out: 1 flagged (2018)" in row[f"{el}_trend"]
+    assert "years left out: 1 flagged (2018)" in net.analysis_w.value
+    # the year's own reason is in the totals table beside it
+    totals = net.totals().droplevel("receptor")
+    assert totals.loc[("v01", "2018"), "S completeness"].startswith(
+        "fails: SO4: gauge record below minimum")
