@@ -33,7 +33,7 @@ from .apps_analysis_network import (SERIAL_MIN_YEARS, network_analysis_parts,  #
                                     serial_text, totals_status, trend_unit)
 # what the explorer writes (defined here before)
 from .apps_analysis_words import (LOWER_HEADING, PATH_COLUMNS, PATH_HEADINGS,  # noqa: F401
-                                  _range_text, exceedance_words, lower_bound,
+                                  _range_text, exceedance_words, gap_note, lower_bound,
                                   path_display, status_note)
 
 #: Draws of the Monte Carlo the explorer offers when the scenario asks for none [1]
@@ -255,6 +255,14 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         return exceedance_probability(pd.DataFrame([row]), self.total_draws(),
                                       [bool(lower)], [bool(lower_n)]).iloc[0].to_dict()
 
+    def _year_rows(self) -> pd.DataFrame:
+        """budget.csv's rows of the yearly budget of the site loaded (computed once a
+        result: :func:`workbench.tables.budget_table`)."""
+        if getattr(self, "_rows_of", (None,))[0] is not self.result:
+            from workbench.tables import budget_table
+            self._rows_of = (self.result, budget_table(self.result.years))
+        return self._rows_of[1]
+
     def loads(self) -> dict:
         site = self.session.study.catalogue()[self.site_w.value]
         return site.critical_loads_for(self.receptor_w.value)
@@ -289,6 +297,10 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
                                 *(full[k] for k in ACIDITY))
         nut = nutrient_n_exceedance(first["n_dep_eq_ha_yr"], full["cl_nut_n"])
         self.status_note = status_note(self.result.years, *sel.values())
+        # why a total rests on a gap (met gaps, weeks without an air sample, a species
+        # blank): budget.csv's note of the total row, also where its status reads
+        # complete or filled
+        self.gap_note = gap_note(self._year_rows(), *sel.values())
         lower = lower_bound(self.result.years, *sel.values())        # S or N partial
         lower_n = lower_bound(self.result.years, *sel.values(), elements=("N",))
         row = self.ranges(loads, sel, lower, lower_n)
@@ -310,6 +322,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         self.text_w.value = (
             (f"<p style='color:#D55E00'>{html.escape(self.status_note)}</p>"
              if self.status_note else "") +
+            (f"<p>{html.escape(self.gap_note)}</p>" if self.gap_note else "") +
             f"<p>Deposition S {first['s_dep_eq_ha_yr']:.0f}, N {first['n_dep_eq_ha_yr']:.0f} "
             f"eq/ha/yr{' (partial: a lower bound)' if lower else ''}: "
             f"{html.escape(self.exceedance_words)}.</p>"

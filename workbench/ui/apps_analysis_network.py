@@ -12,6 +12,10 @@ import pandas as pd  # noqa: F401  (the annotations name pd.DataFrame)
 from ..analysis.trends import MIN_YEARS
 
 
+#: The parts of a trend's note (trends.csv) that name the years it does not use.
+LEFT_OUT_PARTS = ("years left out: ", "no row for ")
+
+
 def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
                            parts=None, serial=False) -> "pd.DataFrame":
     """Trend and exceedance columns of the network overview, per site on its own surface.
@@ -61,9 +65,11 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
                 continue
             n = int(n)
             years_text = f"{n} complete year{'' if n == 1 else 's'}"
+            left_out = p.get(f"{el}_left_out", "")
+            left_out = f"; {left_out}" if isinstance(left_out, str) and left_out else ""
             slope = p[f"{el}_slope_kg_ha_yr"]
             if not np.isfinite(slope):                # too few years for a slope
-                row[f"{el}_trend"] = f"no slope: {years_text}"
+                row[f"{el}_trend"] = f"no slope: {years_text}{left_out}"
                 continue
             # kg/ha/yr of the element -> the unit shown: the factor of a yearly rate
             factor = float(to_unit(1.0, el, unit) / to_unit(1.0, el, "kg/ha/yr"))
@@ -76,7 +82,7 @@ def network_analysis_table(results: dict, catalogue, unit="kg/ha/yr",
                    f"; indicative only: {years_text}, a valid trend needs {MIN_YEARS}")
                 + (f"; crosses a change of method: {p[f'{el}_method_changes']}"
                    if p.get(f"{el}_method_changes") else "")
-                + ")")
+                + left_out + ")")
         row.update(ex_acidity_eq_ha_yr=p["ex_acidity_eq_ha_yr"],
                    ex_nutrient_n_eq_ha_yr=p["ex_nutrient_n_eq_ha_yr"],
                    totals_status=p.get("totals_status", ""),
@@ -175,7 +181,8 @@ def network_analysis_parts(results: dict, catalogue,
     DataFrame
         site, receptor; per element ``{el}_slope_kg_ha_yr`` (Sen slope [kg ha-1 yr-1 per
         yr], NaN without a slope), ``{el}_p``, ``{el}_valid``, ``{el}_n_years`` (NaN
-        without a trend row), ``{el}_method_changes`` (the changes of method the trend's
+        without a trend row), ``{el}_left_out`` (the parts of the trend's note naming the
+        years it does not use: :data:`LEFT_OUT_PARTS`), ``{el}_method_changes`` (the changes of method the trend's
         years cross, trends.csv's ``method_changes``); ``ex_acidity_eq_ha_yr``,
         ``ex_nutrient_n_eq_ha_yr``
         [eq ha-1 yr-1], ``exceedance_status`` of the span (exceedance.csv's status: a
@@ -213,6 +220,13 @@ def network_analysis_parts(results: dict, catalogue,
                 row[f"{el}_p_hamed_rao_held"] = P_HELD.split("{")[0] in str(r.get("note", ""))
             changes = r.get("method_changes", "")
             row[f"{el}_method_changes"] = changes if isinstance(changes, str) else ""
+            # the years the trend leaves out and those without a row, in trends.csv's
+            # words ("years left out: 1 flagged (2018)"): the table said "3 complete
+            # years" with no word of which year was left out
+            note = r.get("note", "")
+            row[f"{el}_left_out"] = "; ".join(
+                part for part in (note.split("; ") if isinstance(note, str) else ())
+                if part.startswith(LEFT_OUT_PARTS))
         ex = exceedance_table(res, catalogue)
         ex = ex[(ex["site"] == site) & (ex["receptor"] == own) & (ex["period"] == "span")]
         if len(ex) and ex.iloc[0]["note"] != NO_CRITICAL_LOADS:

@@ -469,6 +469,7 @@ class NetworkOverview(SavedText, widgets.VBox):
         wide = t.pivot_table(index=["site", "receptor", "period"], columns="element",
                              values=["value", "status", "missing", "completeness"],
                              aggfunc="first", sort=False)
+        notes = self._total_notes()
         cols = {}
         for el in ("S", "N"):
             if ("value", el) in wide:
@@ -477,6 +478,10 @@ class NetworkOverview(SavedText, widgets.VBox):
                 cols[f"{el} completeness"] = wide[("completeness", el)]
                 cols[f"{el} without data"] = wide[("missing", el)].replace(
                     {"": "-", "nan": "-"}).fillna("-")
+                # why: the note of budget.csv's total row (its components' gaps of the
+                # period: met gaps, weeks without an air sample, a species blank)
+                cols[f"{el} note"] = notes.reindex(
+                    [(*k, el) for k in wide.index]).fillna("").to_numpy(dtype=object)
         # the reduced share of N and the potential acidity of the same rows, each with
         # whether it passes completeness (summary.csv's derived sums, yearly rates)
         from .derived_split import completeness_words, network_derived
@@ -493,6 +498,22 @@ class NetworkOverview(SavedText, widgets.VBox):
         shown = ShownTable(cols)
         shown.attrs["whole_text"] = True             # the reason with its minimum, whole
         return shown
+
+    def _total_notes(self) -> pd.Series:
+        """The note of each yearly total row of budget.csv (pathway ``total``,
+        species ``all``), by site, receptor, period and element: the reasons the
+        budget already gives (:func:`workbench.tables.budget_table`), not derived
+        again."""
+        from workbench.tables import budget_table
+        rows = [budget_table(r.years) for r in self.results.values()]
+        t = pd.concat(rows, ignore_index=True) if rows else pd.DataFrame()
+        if not len(t) or "note" not in t:
+            return pd.Series(dtype=object)
+        t = t[(t["pathway"] == "total") & (t["species"] == "all")]
+        return pd.Series(t["note"].fillna("").astype(str).to_numpy(dtype=object),
+                         index=pd.MultiIndex.from_arrays(
+                             [t["site"].astype(str), t["receptor"].astype(str),
+                              t["period"].astype(str), t["element"].astype(str)]))
 
     def _draw(self, create=False):
         unit = self.unit_w.value
