@@ -261,21 +261,24 @@ def test_sigterm_leaves_nothing_behind(tmp_path):
     import signal
     import subprocess
     import sys
-    import time
     folder = _demo(tmp_path, n=6)
     out = tmp_path / "out"
     env = dict(os.environ, PYTHONPATH=os.pathsep.join(sys.path))
     p = subprocess.Popen([sys.executable, "-c", "import sys; from workbench.cli import main; "
                           "sys.exit(main())", "grid", str(folder / "scenario.toml"), "--out",
-                          str(out), "--in-process", "--block", "2"],
+                          str(out), "--in-process", "--block", "1"],
                          stderr=subprocess.PIPE, text=True, env=env, cwd=tmp_path)
-    deadline = time.monotonic() + 120
-    while not (tmp_path / ".out.incomplete").exists() and time.monotonic() < deadline:
-        time.sleep(0.05)
-    assert (tmp_path / ".out.incomplete").exists(), p.communicate()[1]
-    time.sleep(1.0)
+    # the signal goes when the first block is said (stderr is line-buffered), so the run
+    # is inside its blocks whatever the machine's speed: a fixed wait of 1 s after the
+    # scratch folder appeared let a quiet machine finish all the blocks first
+    said = []
+    for line in p.stderr:
+        said.append(line)
+        if line.strip().startswith("block 1/"):
+            break
+    assert (tmp_path / ".out.incomplete").exists(), "".join(said) + p.communicate()[1]
     p.send_signal(signal.SIGTERM)
-    err = p.communicate(timeout=120)[1]
+    err = "".join(said) + p.communicate(timeout=120)[1]
     assert p.returncode == 130, err
     assert "interrupted; nothing was written" in err
     assert sorted(x.name for x in tmp_path.iterdir()) == ["in"]
