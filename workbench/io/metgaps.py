@@ -52,6 +52,17 @@ def value_hours(values, rows, i: int) -> dict:
 VALUE_GAP_NOTE_H = 168
 
 
+def true_runs(mask) -> tuple[np.ndarray, np.ndarray]:
+    """The runs of True in a 1-D boolean `mask`: their first indices and the indices
+    after their last ([a, b) each).
+
+    >>> [x.tolist() for x in true_runs([0, 1, 1, 0, 1])]
+    [[1, 4], [3, 5]]
+    """
+    edges = np.diff(np.concatenate([[0], np.asarray(mask, bool).astype(np.int8), [0]]))
+    return np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
+
+
 def longest_without(mask, times) -> str:
     """The longest stretch of `mask` (hours with a row and no value of a variable) as
     words, " (none for 1008 h from 2019-02-28T23:00 UTC)", where it lasts at least
@@ -64,9 +75,7 @@ def longest_without(mask, times) -> str:
     >>> longest_without(np.arange(300) >= 290, t)
     ''
     """
-    m = np.asarray(mask, bool)
-    edges = np.diff(np.concatenate([[0], m.astype(np.int8), [0]]))
-    a, b = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
+    a, b = true_runs(mask)
     if not len(a):
         return ""
     k = int(np.argmax(b - a))
@@ -204,8 +213,7 @@ def gap_runs(met, sites, names=VD_INPUTS):
         masks = [~rows] + [rows & np.isnan(np.asarray(met[k].isel(site=i).values, float))
                            if k in met else np.zeros(rows.shape, bool) for k in names]
         for kind, m in enumerate(masks):
-            edges = np.diff(np.concatenate([[0], m.astype(np.int8), [0]]))
-            a, b = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
+            a, b = true_runs(m)
             cols["site"].append(np.full(len(a), j))
             cols["kind"].append(np.full(len(a), kind))
             cols["a"].append(a)
@@ -250,8 +258,7 @@ def describe_gaps(met, values=None) -> list[str]:
         if n_miss == 0:
             notes.append(f"met {site}: a row for every hour {span}, not every value: {counts}")
             continue
-        edges = np.diff(np.concatenate([[0], inner.astype(int), [0]]))
-        starts, ends = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
+        starts, ends = true_runs(inner)
         k = int(np.argmax(ends - starts))
         notes.append(f"met {site}: {n_miss} missing hour{'s' if n_miss != 1 else ''} in "
                      f"{len(starts)} gap{'s' if len(starts) != 1 else ''}; longest "
