@@ -58,6 +58,47 @@ def _wet_parts(w, w_status, w_fail, options) -> dict:
             for _, path, sp in COMPONENTS if path == "wet"}
 
 
+def _dry_judged(dr, d_species, wanted, shape, d_cov, d_vdc, d_fs, d_fc, d_meas, d_sok,
+                d_ratio, hours_p, options) -> dict:
+    """The status, completeness failure, failure words and note of every dry component
+    of the budget found in `dr` (:func:`workbench.budgetstatus.dry_status` in one call,
+    the species on a last axis: its steps, the gap notes' and the failure words' are
+    element by element, so each species gets what a call of its own gave it).
+
+    Returns
+    -------
+    dict
+        ``species`` (those of `wanted` in `d_species`, in that order) and ``status``,
+        ``fails``, ``note``, ``failure``, ``coverage``, ``flux_coverage`` and
+        ``vd_coverage`` [1], each (site, receptor, period, species).
+    """
+    found = [sp for sp in wanted if sp in d_species]
+    ks = [d_species.index(sp) for sp in found]
+    shape = tuple(shape) + (len(ks),)
+    cov = np.broadcast_to(d_cov[:, None, :, ks], shape)
+    vdc, fs, fc = d_vdc[..., ks], d_fs[..., ks], d_fc[..., ks]
+    meas = np.broadcast_to(d_meas[:, None, None, ks], shape)
+    sok = d_sok[:, None, :, ks]
+    n_s, n_p = shape[0], shape[2]
+    mk = (dr.variables["masked_note"].values[:, ks].astype(object)
+          if "masked_note" in dr.variables else np.full((n_s, len(ks)), "", object))
+    pm = (dr.variables["period_masked_note"].values[:, :, ks].astype(object)
+          if "period_masked_note" in dr.variables
+          else np.full((n_s, n_p, len(ks)), "", object))
+    st, fl, why = dry_status(cov, vdc, fs, fc, meas, sok, np.asarray(d_ratio, bool)[ks],
+                             options, masked=mk[:, None, None, :], period_masked=pm[:, None],
+                             met_without=_met_without(dr)[:, None, None, None],
+                             met_gaps=_met_gaps(dr)[:, None, :, None],
+                             met_gap_h=_met_gap_hours(dr)[:, None, :, None])
+    why = sampling_gap_note(why, st, cov, hours_p[None, None, :, None], "air")
+    if "species_gap_note" in dr.variables:   # the sampler and dates of the gap
+        spg = dr.variables["species_gap_note"].values[:, None, :, ks]
+        why = np.where(st != "missing", join_notes(why, spg), why).astype(object)
+    failure = np.where(fl, dry_failure_words(cov, fc, sok, options), "")
+    return {"species": found, "status": st, "fails": fl, "note": why, "failure": failure,
+            "coverage": cov, "flux_coverage": fc, "vd_coverage": vdc}
+
+
 def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods: pd.DataFrame,
              options: BudgetOptions, receptors, season_cov=None, collector=None,
              wet_from=None):
@@ -148,6 +189,9 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
         d_ratio = (dr.variables["mixing_ratio"].values if "mixing_ratio" in dr.variables
                    else np.zeros(len(d_species), bool))
         d_sok = _season_ok(dry, season_cov, periods, options)
+        judged = _dry_judged(dr, d_species, [sp for _, path, sp in comps if path == "dry"],
+                             (n_s, n_r, n_p), d_cov, d_vdc, d_fs, d_fc, d_meas, d_sok,
+                             d_ratio, hours_p, options)
     for j, (el, path, sp) in enumerate(comps):
         if path == "wet":
             if wet is None:
@@ -207,28 +251,11 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                         "added; name a correction in [budget] bulk_correction "
                         "('exclude_particles' or 'scale_wet', see docs/budget.md)")
             d = d_dep[..., k]
-            cov = d_cov[:, None, :, k] * np.ones((1, n_r, 1))
-            vdc = d_vdc[..., k]
-            fs = d_fs[..., k]
-            meas = d_meas[:, None, None, k] * np.ones((1, n_r, n_p), bool)
-            sok = d_sok[:, :, k][:, None, :]
-            fc = d_fc[..., k]
-            mk = (dr.variables["masked_note"].values[:, k].astype(object)
-                  if "masked_note" in dr.variables else np.full(len(sites), "", object))
-            pm = (dr.variables["period_masked_note"].values[:, :, k].astype(object)
-                  if "period_masked_note" in dr.variables
-                  else np.full((len(sites), n_p), "", object))
-            st, fl, why = dry_status(cov, vdc, fs, fc, meas, sok, bool(d_ratio[k]), options,
-                                     masked=mk[:, None, None], period_masked=pm[:, None, :],
-                                     met_without=_met_without(dr)[:, None, None],
-                                     met_gaps=_met_gaps(dr)[:, None, :],
-                                     met_gap_h=_met_gap_hours(dr)[:, None, :])
-            why = sampling_gap_note(why, st, cov, hours_p[None, None, :], "air")
-            if "species_gap_note" in dr.variables:   # the sampler and dates of the gap
-                spg = dr.variables["species_gap_note"].values[:, None, :, k]
-                why = np.where(st != "missing", join_notes(why, spg), why).astype(object)
+            i = judged["species"].index(sp)
+            st, fl, why, cov, fc, vdc = (judged[v][..., i] for v in (
+                "status", "fails", "note", "coverage", "flux_coverage", "vd_coverage"))
             fails[..., j] = fl
-            failure[..., j] = np.where(fl, dry_failure_words(cov, fc, sok, options), "")
+            failure[..., j] = judged["failure"][..., i]
             comp_note[..., j] = why
             c = np.fmin(np.fmin(cov, fc), vdc)
             if sp in PARTICLES and options.bulk_correction == "exclude_particles":
