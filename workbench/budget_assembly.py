@@ -15,7 +15,7 @@ from .budget_axes import (_collector_split_on, _dry_on_receptors, _same_axis, _s
 from .budget_components import (BULK_CAUGHT_IN, COMPONENTS, FRACTIONS, OMISSIONS, PAIRS,
                                 PARTICLES)
 from .budget_options import BudgetError, BudgetOptions
-from .budget_totals import _totals
+from .budget_totals import _totals, text_variable
 from .budgetstatus import (NO_PNA_AT_SITE, as_flag, bracket_outputs, bulk_caught_brackets,
                            dry_failure_words, dry_status, join_notes, nh3_net_component,
                            sampling_gap_note,
@@ -482,14 +482,14 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
             **{name: xr.Variable(dims, np.where(status == "missing", np.nan, v),
                                  {"units": "1", "long_name": FRACTIONS[name]})
                for name, v in fractions.items()},
-            "note": xr.Variable(dims, comp_note),
+            "note": text_variable(dims, comp_note),
             "fails_completeness": xr.Variable(dims, fails & (status != "missing"), {
                 "long_name": "the component fails a completeness criterion"}),
-            "completeness_failure": xr.Variable(dims, np.where(
+            "completeness_failure": text_variable(dims, np.where(
                 fails & (status != "missing"), failure, "").astype(object), {
                 "long_name": "the first completeness criterion the component fails, with "
                              "its share and minimum"}),
-            "status": xr.Variable(dims, status),
+            "status": text_variable(dims, status),
             "active": xr.Variable(("site", "receptor"), active),
             "nh3_deposition_only": xr.Variable(dims[:3], nh3_only, {
                 "units": "mol m-2", "long_name": "dry NH3 deposition, deposition only (the "
@@ -510,7 +510,7 @@ def assemble(wet: xr.Dataset | None, dry: xr.Dataset | None, catalogue, periods:
                                             * np.ones((1, n_r, 1), object))
             if path in ("dry", "total"):
                 t_note[..., t] = join_notes(t_note[..., t], lu)
-        data["total_note"] = xr.Variable(dims[:3] + ("total",), t_note.astype(object))
+        data["total_note"] = text_variable(dims[:3] + ("total",), t_note.astype(object))
     coords = {**L["coords"], "total": names}
     if dry is not None:
         sp_index = [c[2] for c in comps].index

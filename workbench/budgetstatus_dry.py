@@ -9,6 +9,7 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
+from .budget_totals import text_variable
 from .budgetstatus_notes import SAMPLING_GAP_NOTE_H, join_notes
 from .wet.qa import exceeds, falls_short
 
@@ -389,13 +390,13 @@ def bracket_outputs(dr, pairs, species, vd_cov, filled_share, measured, season_o
                           + note_i)
         out[name] = xr.Variable(dims, np.where(miss[..., i], np.nan, d[..., i]),
                                 dr.variables[name].attrs)
-        out[f"{name}_status"] = xr.Variable(dims, st[..., i], {
+        out[f"{name}_status"] = text_variable(dims, st[..., i], {
             "long_name": f"status of {name}: that of the weaker pair member (docs/budget.md)"})
         out[f"{name}_completeness"] = xr.Variable(dims, np.where(miss[..., i], np.nan,
                                                                  compl[..., i]), {
             "units": "1", "long_name": f"completeness of {name}: the smallest air, flux "
             "and Vd coverage of the pair members"})
-        out[f"{name}_note"] = xr.Variable(dims, note_i.astype(object), {
+        out[f"{name}_note"] = text_variable(dims, note_i.astype(object), {
             "long_name": f"why {name} is missing or flagged"})
     return out
 
