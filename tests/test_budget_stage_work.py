@@ -137,3 +137,33 @@ def test_one_call_judges_as_one_call_per_species():
             np.testing.assert_array_equal(st[..., k], one[0])
             np.testing.assert_array_equal(fl[..., k], one[1])
             np.testing.assert_array_equal(note[..., k], one[2])
+
+
+def test_the_budgets_words_do_not_go_through_pandas(study, monkeypatch):
+    """A ``min_air_coverage`` change (two budgets) hands xarray no array of words to
+    convert through pandas (``_possibly_convert_objects``: 34 arrays of statuses, notes
+    and names before, 17 a budget, each a string array of pandas and back), and the
+    words are the same ``str``."""
+    import xarray.core.variable as xv
+    st, sc = study
+    fresh = Study(st.inputs, st.site_overrides)
+    base = {"wet": sc.options["wet"], "dry": sc.options["dry"], "budget": sc.options["budget"]}
+    first = _run(fresh, base)
+    converted = []
+    real = xv._possibly_convert_objects
+
+    def counted(values):
+        converted.append(values.dtype)
+        return real(values)
+    monkeypatch.setattr(xv, "_possibly_convert_objects", counted)
+    r = _run(fresh, dict(base, budget=dataclasses.replace(base["budget"],
+                                                          min_air_coverage=0.63)))
+    words = [d for d in converted if d == object]
+    assert len(words) <= 2, len(words)            # the air species' coordinate, at most
+    for ds in (r.budget, r.years):
+        for name in ("status", "note", "completeness_failure", "total_status",
+                     "total_missing_components"):
+            values = ds[name].values
+            assert values.dtype == object
+            assert {type(x) for x in values.ravel()} == {str}
+    assert first.budget["status"].dtype == object
