@@ -28,7 +28,8 @@ DOC = Path(__file__).resolve().parent / "engine.md"
 ORDER = ("periods", "sample_flags", "screen", "wet", "surfaces", "micromet", "canopy_state", "gas_vd",
          "particle_mode_vd", "site_subset", "velocities", "wanted_pairs", "vd_content", "hour_slots", "vd_fill", "vd_axes", "air_basis", "pair_air",
          "air_content", "flux_inputs", "species_rows", "nh3_emission_rows", "dry_rows",
-         "period_shares", "dry_components", "season_coverage", "wet_components", "budget",
+         "period_shares", "dry_components", "season_coverage", "wet_components", "budget_layout",
+         "wet_assembled", "budget",
          "derived", "sample_hours", "precipitation_notes", "air_notes", "site_study", "app_run",
          "range_shares")
 CLASSES = {"wet": WetOptions, "dry": DryOptions, "budget": BudgetOptions}

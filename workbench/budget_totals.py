@@ -9,6 +9,25 @@ import numpy as np
 import xarray as xr
 
 
+def text_variable(dims, values, attrs=None) -> xr.Variable:
+    """An xarray Variable of words (a numpy array of object dtype holding ``str``).
+
+    xarray passes every object array it is given through pandas to turn date objects
+    into datetime64 (``Variable`` without ``fastpath``): under pandas 3 that builds a
+    string array of the words and an object array again, the same words, about a
+    tenth of a millisecond an array, a dozen arrays a budget.  The words of the budget
+    (statuses, notes, names, reasons) hold no date: they are wrapped as they are.
+    Anything but an object array takes xarray's usual way.
+
+    >>> v = text_variable(("x",), np.array(["complete", "missing"], dtype=object))
+    >>> v.dtype, v.values.tolist()
+    (dtype('O'), ['complete', 'missing'])
+    """
+    if type(values) is np.ndarray and values.dtype == object:
+        return xr.Variable(dims, values, attrs, fastpath=True)
+    return xr.Variable(dims, values, attrs)
+
+
 def combine_status(statuses):
     """Status of a sum of components along the last axis.
 
@@ -112,16 +131,16 @@ def _totals(dep, status, compl, element, pathway, species, fails=None, failure=N
     return names, {
         "total_deposition": xr.Variable(dims, stack(0), {"units": "mol m-2",
                                                          "long_name": "sum of components (element)"}),
-        "total_status": xr.Variable(dims, stack(1)),
+        "total_status": text_variable(dims, stack(1)),
         "total_passes": xr.Variable(dims, stack(2), {
             "long_name": "present components pass completeness (a component flagged only "
                          "for kept flagged samples or a sulfate fallback passes)"}),
-        "total_missing_components": xr.Variable(dims, stack(3),
+        "total_missing_components": text_variable(dims, stack(3),
                                                 {"long_name": "components without data"}),
-        "total_flagged_components": xr.Variable(dims, stack(5),
+        "total_flagged_components": text_variable(dims, stack(5),
                                                 {"long_name": "components with status flagged"}),
         "total_completeness": xr.Variable(dims, stack(4), {"units": "1"}),
-        "total_completeness_failure": xr.Variable(dims, stack(6), {
+        "total_completeness_failure": text_variable(dims, stack(6), {
             "long_name": "the first completeness criterion a component of the sum fails, "
                          "with its share and minimum, after the species failing for it"})}
 

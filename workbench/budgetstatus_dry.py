@@ -9,6 +9,7 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
+from .budget_totals import text_variable
 from .budgetstatus_notes import SAMPLING_GAP_NOTE_H, join_notes
 from .wet.qa import exceeds, falls_short
 
@@ -139,6 +140,13 @@ def filled_vd_words(filled_share, options) -> np.ndarray:
                        f"the sample mean; more than {bound:.3g} %)").astype(object)
 
 
+#: Why a mixing ratio's period with a Vd has no flux.
+RATIO_NO_FLUX = ("no molar density of air (temperature or pressure) in the sampled "
+                 "hours: the mixing ratio cannot become a flux")
+#: Why a concentration's period with a Vd has no flux.
+NO_HOUR_WITH_BOTH = "no hour with both a concentration and a deposition velocity"
+
+
 def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ratio,
                 options, masked="", period_masked="", met_without="", met_gaps="",
                 met_gap_h=0.0):
@@ -150,8 +158,10 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
         Share of the period's hours with a concentration, with a modelled Vd, with
         a filled Vd, and in sampling periods whose flux is known [1].
     measured, season_ok : ndarray of bool
-    ratio : bool
-        The species is given as a mixing ratio (needs the molar density of air).
+    ratio : bool or ndarray of bool
+        The species is given as a mixing ratio (needs the molar density of air);
+        broadcastable to `coverage` (one per species on a last axis of species: every
+        step here is element by element, so several species are judged in one call).
     options : BudgetOptions
     masked : str or ndarray of str, optional
         Where the species is not `measured`: why every value at the site was masked
@@ -213,10 +223,8 @@ def dry_status(coverage, vd_cov, filled_share, flux_cov, measured, season_ok, ra
         " no value in any hour of the site's met record"),
         "no deposition velocity for any hour of the period (check the met record and the "
         "site's roughness and heights)").astype(object)
-    why_none = np.where(no_vd, no_vd_why,
-                        "no molar density of air (temperature or pressure) in the sampled "
-                        "hours: the mixing ratio cannot become a flux" if ratio else
-                        "no hour with both a concentration and a deposition velocity")
+    why_none = np.where(no_vd, no_vd_why, np.where(np.asarray(ratio, bool), RATIO_NO_FLUX,
+                                                   NO_HOUR_WITH_BOTH))
     gaps = np.broadcast_to(np.asarray(met_gaps, dtype=object), np.shape(coverage))
     gaps = np.where(pd.isna(gaps), "", gaps).astype(object)
     # the period's own met gaps, named where the whole record has the variable: a
@@ -336,48 +344,60 @@ def bracket_outputs(dr, pairs, species, vd_cov, filled_share, measured, season_o
     """
     out = {}
     dims = ("site", "receptor", "period")
-    for pair, members in pairs.items():
-        for how, vd_sp in bracket_velocities(members).items():
-            name = f"bracket_{pair}_{how}"
-            if name not in dr.variables:
-                continue
-            ks = [species.index(m) for m in members]
-            k = species.index(vd_sp)
-            d = dr.variables[name].values
-            cov = dr.variables[f"{name}_air_coverage"].values[:, None, :] * np.ones(d.shape)
-            fc = dr.variables[f"{name}_flux_coverage"].values
-            meas = measured[:, ks].all(-1)[:, None, None] & np.ones(d.shape, bool)
-            sok = season_ok[:, :, ks].all(-1)[:, None, :]
-            # the reason of the first member that lost every value, where each member
-            # was measured (a member not sampled at the site: "not measured")
-            mk = (dr.variables["masked_note"].values[:, ks].astype(object)
-                  if "masked_note" in dr.variables else np.full((len(meas), 2), "", object))
-            mk = np.where(measured[:, ks], "", mk)
-            sampled = (measured[:, ks] | (mk != "")).all(-1)
-            mk = np.where(sampled, np.where(mk[:, 0] != "", mk[:, 0], mk[:, 1]), "")
-            # a period without a concentration of a member: the first member's masked
-            # reason there ("" where neither member's samples of the period were masked)
-            pm = (dr.variables["period_masked_note"].values[:, :, ks].astype(object)
-                  if "period_masked_note" in dr.variables
-                  else np.full((len(meas), d.shape[2], 2), "", object))
-            pm = np.where(pm[..., 0] != "", pm[..., 0], pm[..., 1])
-            st, _, note = dry_status(cov, vd_cov[..., k], filled_share[..., k], fc, meas, sok,
-                                     bool(ratio[ks].any()), options, masked=mk[:, None, None],
-                                     period_masked=pm[:, None, :],
-                                     met_without=_met_without(dr)[:, None, None],
-                                     met_gaps=_met_gaps(dr)[:, None, :],
-                                     met_gap_h=_met_gap_hours(dr)[:, None, :])
-            note = np.where(note == "", note, f"the weaker of {' and '.join(members)}: " + note)
-            compl = np.fmin(np.fmin(cov, fc), vd_cov[..., k])
-            miss = st == "missing"
-            out[name] = xr.Variable(dims, np.where(miss, np.nan, d), dr.variables[name].attrs)
-            out[f"{name}_status"] = xr.Variable(dims, st, {
-                "long_name": f"status of {name}: that of the weaker pair member (docs/budget.md)"})
-            out[f"{name}_completeness"] = xr.Variable(dims, np.where(miss, np.nan, compl), {
-                "units": "1", "long_name": f"completeness of {name}: the smallest air, flux "
-                "and Vd coverage of the pair members"})
-            out[f"{name}_note"] = xr.Variable(dims, note.astype(object), {
-                "long_name": f"why {name} is missing or flagged"})
+    found = [(f"bracket_{pair}_{how}", members, vd_sp) for pair, members in pairs.items()
+             for how, vd_sp in bracket_velocities(members).items()
+             if f"bracket_{pair}_{how}" in dr.variables]
+    if not found:
+        return out
+    # every bracket judged in one call of dry_status, the brackets on a last axis (its
+    # steps are element by element: the same statuses and notes as one call each)
+    names = [f[0] for f in found]
+    ks = np.array([[species.index(m) for m in f[1]] for f in found])      # (bracket, 2)
+    k = [species.index(f[2]) for f in found]
+    d = np.stack([dr.variables[n].values for n in names], axis=-1)
+    shape = d.shape                                            # (site, receptor, period, b)
+    cov = np.broadcast_to(np.stack([dr.variables[f"{n}_air_coverage"].values for n in names],
+                                   axis=-1)[:, None, :, :], shape)
+    fc = np.stack([dr.variables[f"{n}_flux_coverage"].values for n in names], axis=-1)
+    meas = np.broadcast_to(measured[:, ks].all(-1)[:, None, None, :], shape)
+    sok = season_ok[:, :, ks].all(-1)[:, None, :, :]
+    # the reason of the first member that lost every value, where each member was
+    # measured (a member not sampled at the site: "not measured")
+    n_s = measured.shape[0]
+    mk = (dr.variables["masked_note"].values[:, ks].astype(object)
+          if "masked_note" in dr.variables else np.full((n_s, len(names), 2), "", object))
+    mk = np.where(measured[:, ks], "", mk)
+    sampled = (measured[:, ks] | (mk != "")).all(-1)
+    mk = np.where(sampled, np.where(mk[..., 0] != "", mk[..., 0], mk[..., 1]), "")
+    # a period without a concentration of a member: the first member's masked reason
+    # there ("" where neither member's samples of the period were masked)
+    pm = (dr.variables["period_masked_note"].values[:, :, ks].astype(object)
+          if "period_masked_note" in dr.variables
+          else np.full((n_s, shape[2], len(names), 2), "", object))
+    pm = np.where(pm[..., 0] != "", pm[..., 0], pm[..., 1])
+    vdc = vd_cov[..., k]
+    st, _, note = dry_status(cov, vdc, filled_share[..., k], fc, meas, sok,
+                             ratio[ks].any(-1), options, masked=mk[:, None, None, :],
+                             period_masked=pm[:, None, :, :],
+                             met_without=_met_without(dr)[:, None, None, None],
+                             met_gaps=_met_gaps(dr)[:, None, :, None],
+                             met_gap_h=_met_gap_hours(dr)[:, None, :, None])
+    compl = np.fmin(np.fmin(cov, fc), vdc)
+    miss = st == "missing"
+    for i, (name, members, _) in enumerate(found):
+        note_i = note[..., i]
+        note_i = np.where(note_i == "", note_i, f"the weaker of {' and '.join(members)}: "
+                          + note_i)
+        out[name] = xr.Variable(dims, np.where(miss[..., i], np.nan, d[..., i]),
+                                dr.variables[name].attrs)
+        out[f"{name}_status"] = text_variable(dims, st[..., i], {
+            "long_name": f"status of {name}: that of the weaker pair member (docs/budget.md)"})
+        out[f"{name}_completeness"] = xr.Variable(dims, np.where(miss[..., i], np.nan,
+                                                                 compl[..., i]), {
+            "units": "1", "long_name": f"completeness of {name}: the smallest air, flux "
+            "and Vd coverage of the pair members"})
+        out[f"{name}_note"] = text_variable(dims, note_i.astype(object), {
+            "long_name": f"why {name} is missing or flagged"})
     return out
 
 

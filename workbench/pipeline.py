@@ -422,11 +422,20 @@ class Study(_StudyVelocities):
                      "met": self._input("met", self.inputs.met)},
                     {"history": c_history,
                      "collectors": tuple((s.id, s.collector) for s in cat.value)})
+            # what reads no option (the axes, the collectors, the land-use notes)
+            deps["layout"] = self._run(
+                "budget_layout", None,
+                {k: deps[k] for k in ("catalogue", "periods", "collector") if k in deps},
+                {"receptors": shown})
             if wet.value is not None:
                 # the wet components read one budget option: kept across a dry change
                 deps["wet_parts"] = self._run(
                     "wet_components", {"budget": budget_options},
                     {"wet": wet, "periods": table}, {"sites": tuple(cat.value.ids)})
+                # after the bulk collectors: kept across a completeness option's change
+                deps["wet_cols"] = self._run(
+                    "wet_assembled", {"budget": budget_options},
+                    {"wet": wet, "layout": deps["layout"], "wet_parts": deps["wet_parts"]})
             ds = self._run("budget", opts, deps, {"receptors": shown})
             return ds, wet
 

@@ -17,7 +17,7 @@ import xarray as xr
 
 from . import periods as _periods
 from .budget import BudgetOptions, assemble, derived
-from .budget_assembly import wet_parts
+from .budget_assembly import budget_layout as _budget_layout, wet_columns, wet_parts
 from .period_notes import median_hours, one_sample_notes
 from .drycomponents import NH3_EXCHANGE, fill_arrays, prepare_velocities
 from .dryflux import fill_diurnal, hour_slots
@@ -391,14 +391,38 @@ def wet_components(o, wet, periods, sites):
     return wet_parts(wet, list(sites), periods["label"].values, o.budget)
 
 
+#: Budget options the wet components after the bulk collectors read.
+WET_ASSEMBLY_OPTIONS = ("sulfate_basis", "bulk_correction", "bulk_wet_factor",
+                        "bulk_wet_factor_ion")
+
+
+@stage("budget_layout")
+def budget_layout(o, catalogue, periods, receptors, collector=None):
+    """What of the budget reads no option (:func:`workbench.budget_assembly.budget_layout`:
+    the sites' receptors, the collector in force over each period, the land-use notes,
+    the yearly factors and the coordinates): computed once per site set, periods and
+    receptors."""
+    return _budget_layout(catalogue, periods, list(receptors), collector)
+
+
+@stage("wet_assembled", reads={"budget": WET_ASSEMBLY_OPTIONS})
+def wet_assembled(o, wet, layout, wet_parts=None):
+    """The budget's wet components after the bulk collectors, and its wet variables
+    (:func:`workbench.budget_assembly.wet_columns`): a dry option or a completeness
+    option changed, they are not assembled again."""
+    return wet_columns(wet, layout, o.budget, wet_from=wet_parts)
+
+
 @stage("budget", reads={"budget": BUDGET_OPTIONS}, counts_as="budget")
 def budget(o, wet, dry, catalogue, periods, season_cov, receptors, collector=None,
-           wet_parts=None):
+           wet_parts=None, layout=None, wet_cols=None):
     """Wet + dry components per site, receptor and period, totals and status
     (`collector`: the ``collector_split`` stage at sites whose collector changed;
-    `wet_parts`: the ``wet_components`` stage)."""
+    `wet_parts`: the ``wet_components`` stage; `layout`: the ``budget_layout`` stage;
+    `wet_cols`: the ``wet_assembled`` stage)."""
     return assemble(wet, dry, catalogue, periods, o.budget, list(receptors), season_cov,
-                    collector=collector, wet_from=wet_parts)
+                    collector=collector, wet_from=wet_parts, layout=layout,
+                    wet_cols=wet_cols)
 
 
 @stage("sample_hours")
