@@ -40,26 +40,31 @@ def held(graph) -> dict:
     import numpy as np
 
     from workbench.graph import _sizes
-    seen, by_stage = {}, Counter()
+    seen, by_stage, owner = {}, Counter(), {}
     for key, (value, _own, _addresses) in graph._store.items():
         found = {}
         _sizes(value, found)
         for address, (n, root) in found.items():
             if address not in seen:
                 seen[address] = root
-                by_stage[key.split(":", 1)[0]] += n
+                owner[address] = key.split(":", 1)[0]
+                by_stage[owner[address]] += n
     groups = defaultdict(list)
-    for root in seen.values():
+    for address, root in seen.items():
         a = np.ascontiguousarray(root)
         h = hashlib.blake2b(a.view(np.uint8).reshape(-1) if a.dtype != object
                             else a.astype(str).tobytes(), digest_size=16).hexdigest()
-        groups[(a.dtype.str, a.shape, h)].append(root.nbytes)
-    dup = [(sum(v[1:]), len(v)) for v in groups.values() if len(v) > 1]
+        groups[(a.dtype.str, a.shape, h)].append((root.nbytes, owner[address]))
+    dup = [(sum(n for n, _ in v[1:]), len(v), sorted(Counter(s for _, s in v).items()))
+           for v in groups.values() if len(v) > 1]
+    dup.sort(key=lambda d: -d[0])
     return {"held_mb": sum(by_stage.values()) / 1e6,
             "by_stage_mb": {k: round(v / 1e6, 1) for k, v in by_stage.most_common()},
             "equal_copies_mb": sum(d[0] for d in dup) / 1e6,
             "equal_groups": len(dup), "entries": len(graph._store),
-            "graph_count_mb": graph.nbytes / 1e6}
+            "graph_count_mb": graph.nbytes / 1e6,
+            "largest_equal": [{"extra_mb": round(d[0] / 1e6, 1), "copies": d[1],
+                               "held_by": dict(d[2])} for d in dup[:8]]}
 
 
 def main(argv=None):
@@ -113,6 +118,9 @@ def main(argv=None):
           f"(graph count {h['graph_count_mb']:,.0f} MB); arrays equal to another buffer: "
           f"{h['equal_copies_mb']:,.0f} MB in {h['equal_groups']} groups")
     print("  by stage [MB]:", h["by_stage_mb"])
+    print("  the largest groups of equal arrays (stages holding the copies):")
+    for d in h["largest_equal"]:
+        print(f"    {d['extra_mb']} MB more in {d['copies']} copies: {d['held_by']}")
     peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1e3
     out["peak_rss_mb"] = peak
     print(f"peak resident (ru_maxrss): {peak:,.0f} MB")
