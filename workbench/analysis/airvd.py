@@ -11,8 +11,10 @@ measured air.  With ``vd_follows_air`` they follow the drawn ratio:
    keyed by their declared option fields and by the factor: nothing here writes a
    key), and the dry rows on them with the measured concentrations, both for the
    species whose Vd follows the air only (:func:`grid_options`; the runs make those
-   Vd alone, :func:`air_outputs`); the point run is
-   the grid's k = 1.  NH3 scaled by k moves the NH3/SO2 ratio by c = k and the acid
+   Vd alone, :func:`air_outputs`).  Each factor's rows are the stage
+   ``air_vd_rows``, its velocities, fills and sums made in a scratch graph that reads
+   the study's cache and is dropped with the rows (:func:`_rows_on_air`).  The point
+   run is the grid's k = 1.  NH3 scaled by k moves the NH3/SO2 ratio by c = k and the acid
    ratio by c = 1/k, and each of the two velocities takes its own ratio only, so one
    grid serves both options;
 2. each sampling period's part A_npr(c) of the species whose Vd follows the air (SO2,
