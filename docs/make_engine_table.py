@@ -17,7 +17,7 @@ import workbench.drycomponents  # noqa: E402,F401  (declares period_shares; impo
 import workbench.drydep.core  # noqa: E402,F401  (declares the velocity steps)
 import workbench.stages  # noqa: E402,F401
 import workbench.analysis.range_shares  # noqa: E402,F401  (declares range_shares)
-import workbench.analysis.airvd  # noqa: E402,F401  (declares air_scaled)
+import workbench.analysis.airvd  # noqa: E402,F401  (declares air_scaled, air_vd_rows)
 from workbench.budget import BudgetOptions  # noqa: E402
 from workbench.drydep import DryOptions  # noqa: E402
 from workbench.graph import STAGES, unread_fields  # noqa: E402
@@ -26,7 +26,7 @@ from workbench.wet import WetOptions  # noqa: E402
 DOC = Path(__file__).resolve().parent / "engine.md"
 #: The order of the table: the order a budget runs them in.
 ORDER = ("periods", "sample_flags", "screen", "wet", "surfaces", "micromet", "canopy_state", "gas_vd",
-         "particle_mode_vd", "site_subset", "velocities", "wanted_pairs", "vd_content", "hour_slots", "vd_fill", "vd_axes", "air_basis", "pair_air",
+         "particle_mode_vd", "site_subset", "velocities", "wanted_pairs", "vd_content", "hour_slots", "vd_fill", "fill_counts", "vd_axes", "air_basis", "pair_air",
          "air_content", "flux_inputs", "species_rows", "nh3_emission_rows", "dry_rows",
          "period_shares", "dry_components", "season_coverage", "wet_components", "budget_layout",
          "wet_assembled", "budget",

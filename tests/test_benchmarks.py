@@ -358,3 +358,16 @@ def test_air_dependent_vd_measures_the_fixed_velocities(capsys):
     assert "check draw 0" in text and "conifer_forest" in text
     got = out["codeposition"]["conifer_forest"]
     assert 0 < got["median"] < got["max"] < 0.2
+
+
+def test_air_vd_held_counts_the_layers_and_what_the_cache_holds(scenario, tmp_path):
+    bench = _load("air_vd_held")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        out = bench.main(["--scenario", str(scenario), "--layers", "2",
+                          "--npz", str(tmp_path / "grid.npz")])
+    _, first, second = out["steps"]
+    assert first["computed"]["air_vd_rows"] == 8 and second["computed"] == {}
+    assert out["held"]["held_mb"] > 0 and out["peak_rss_mb"] > 0
+    import numpy as np
+    assert {"0_SO2_table", "0_NH3_table"} <= set(np.load(tmp_path / "grid.npz").files)

@@ -93,7 +93,7 @@ def nh3_exchange_velocities(vd_ds, min_slot_hours=7, slots=None):
     return out
 
 
-def fill_arrays(vd, was, source, sites) -> dict:
+def fill_arrays(vd, was, source, sites, counts=None) -> dict:
     """What the rows read of a gap-filled Vd: the (site, receptor, time) arrays of the
     sites and the cumulative counts of modelled and filled hours.
 
@@ -103,6 +103,11 @@ def fill_arrays(vd, was, source, sites) -> dict:
         Filled Vd [m s-1] and its fill mask, as :func:`prepare_velocities` gives them.
     source : str
     sites : sequence of str
+    counts : callable, optional
+        ``counts(modelled, filled)`` of the two (site, receptor, time) masks -> their
+        cumulative counts (c_valid, c_fill), where a stage graph keeps them by the
+        masks' content (the ``fill_counts`` stage, :class:`workbench.pipeline.Study`);
+        default: counted here.
 
     Returns
     -------
@@ -117,5 +122,7 @@ def fill_arrays(vd, was, source, sites) -> dict:
     v = v.transpose("site", "receptor", "time")
     was_np = w.transpose("site", "receptor", "time").values
     valid_raw = np.isfinite(v.values) & ~was_np
+    c_valid, c_fill = ((_count_cumulative(valid_raw), _count_cumulative(was_np))
+                       if counts is None else counts(valid_raw, was_np))
     return {"vel": (vd, was, source), "vd": v, "v_np": v.values,
-            "c_valid": _count_cumulative(valid_raw), "c_fill": _count_cumulative(was_np)}
+            "c_valid": c_valid, "c_fill": c_fill}

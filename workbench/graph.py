@@ -464,6 +464,21 @@ class Graph:
         self._buffers.clear()
         self._bytes = 0
 
+    def scratch(self) -> "Graph":
+        """A graph for the inner results of one stage: it reads this graph's cache (a
+        result found there is used, and made the most recent there) and keeps what it
+        computes itself, under this graph's bounds, only as long as it is held; its
+        computations are counted in this graph's :attr:`counts` (and :attr:`edges`).
+
+        The Monte Carlo's runs of the velocities on scaled air
+        (:mod:`workbench.analysis.airvd`) compute their velocities, fills and sums in
+        one: the stage of their rows is cached here, their inner results are not, so
+        the eight runs neither push the point run's results out of the cache nor have
+        to be held for the rows to be found again."""
+        g = _Scratch(self.max_entries, self.max_bytes)
+        g.parent, g.counts, g.edges = self, self.counts, self.edges
+        return g
+
     def steps(self, identity: str, counts=None, air: str | None = None) -> "Steps":
         """The velocity steps of one calculation on inputs of this `identity` (`air`:
         the identity of an air the steps that read it were given, see :class:`Steps`)."""
@@ -471,6 +486,19 @@ class Graph:
 
 
 MISSING = _MISSING
+
+
+class _Scratch(Graph):
+    """:meth:`Graph.scratch`: its own cache first, then its parent's."""
+
+    parent: Graph
+
+    def get(self, key):
+        hit = super().get(key)
+        return self.parent.get(key) if hit is _MISSING else hit
+
+    def has(self, key) -> bool:
+        return super().has(key) or self.parent.has(key)
 
 
 class Steps:

@@ -25,6 +25,7 @@ velocities (only their assembly) and no gas's rows.
 """
 from __future__ import annotations
 
+import copy
 import dataclasses
 import uuid
 from types import SimpleNamespace
@@ -193,6 +194,13 @@ class Study(_StudyVelocities):
 
     def _run(self, name, options=None, deps=None, params=None, fn=None) -> Node:
         return self.graph.run(name, options, deps, params, fn, counts=self.counts)
+
+    def _in_graph(self, graph: Graph) -> "Study":
+        """This study running its stages in `graph` (a :meth:`Graph.scratch` of its own:
+        the same inputs, token and counts, so the same keys)."""
+        sub = copy.copy(self)
+        sub.graph = graph
+        return sub
 
     def _periods_node(self, resolution="year", start=None, end=None, hydro_start_month=10):
         """The periods stage, its result keyed by its content (:meth:`_as_periods_node`):

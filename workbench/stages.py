@@ -20,7 +20,7 @@ from .budget import BudgetOptions, assemble, derived
 from .budget_assembly import budget_layout as _budget_layout, wet_columns, wet_parts
 from .period_notes import median_hours, one_sample_notes
 from .drycomponents import NH3_EXCHANGE, fill_arrays, prepare_velocities
-from .dryflux import fill_diurnal, hour_slots
+from .dryflux import _count_cumulative, fill_diurnal, hour_slots
 from .graph import declare, stage, variables_digest
 from .wet.options import WetOptions
 from .pairfill import fill_value
@@ -124,12 +124,16 @@ def land_use_in_force(o, velocities, surfaces, history, receptors, wanted):
 
 
 @stage("velocities", reads={"dry": VELOCITY_OPTIONS}, counts_as="velocities")
-def velocities(o, met, surfaces, catalogue, steps, receptors, air=None):
+def velocities(o, met, surfaces, catalogue, steps, receptors, air=None, outputs=None):
     """Hourly Ra, Rb, Rc and Vd (its steps are stages of their own).
 
     The hourly inputs that dry options take from the air concentrations are added to
     the met first (:func:`met_with_air`); the steps that use them declare the options
-    that make them, so the steps are keyed on the met as read.
+    that make them, so the steps are keyed on the met as read.  `outputs` (a tuple of
+    names, a parameter: it enters the key) makes those variables only, the same bits
+    as in the whole result (:func:`workbench.drydep.velocities`): the Monte Carlo's
+    runs on scaled air ask for the Vd that follow the air, not for copies of every
+    variable of the point run (:func:`workbench.analysis.airvd.grid_pieces`).
     """
     from .drydep import velocities as _velocities
     dry = o.dry
@@ -140,7 +144,8 @@ def velocities(o, met, surfaces, catalogue, steps, receptors, air=None):
             dry = dry.with_values(nh3_emission_potential={**site_g,
                                                           **dry.nh3_emission_potential})
     vd = _velocities(met, surfaces, dry, cache=steps,
-                     receptors=None if receptors is None else list(receptors))
+                     receptors=None if receptors is None else list(receptors),
+                     outputs=None if outputs is None else frozenset(outputs))
     if vd.chunks:
         # dask-backed met: the engine runs chunk by chunk (in parallel) once, here; every
         # stage after this one reads the same computed arrays instead of re-running the
@@ -332,13 +337,15 @@ def met_hour_slots(o, met):
 
 
 @stage("vd_fill", reads={"budget": ("min_slot_hours",)}, counts_as="dry")
-def vd_fill(o, vd, name, fixed, sites, slots=None, classes=None):
+def vd_fill(o, vd, name, fixed, sites, slots=None, classes=None, counts=None):
     """Gap-filled hourly Vd of a species (its mean diurnal cycle), or a fixed Vd.
 
     `vd` is ``(DataArray, scheme)`` of the model or, for a fixed Vd, the
     ``(ids, receptors, times)`` axes; `slots` the ``hour_slots`` of its time axis;
     `classes` ``(DataArray, scheme)`` of ``land_use_in_force`` when a site's own surface
     changed class inside the record: each hour is filled from its class's hours only.
+    `counts`: how the cumulative hour counts are made (:func:`fill_arrays`; a study
+    takes them from the ``fill_counts`` stage).
     """
     cls = None if classes is None else classes[0]
     min_slot = o.budget.min_slot_hours
@@ -355,7 +362,18 @@ def vd_fill(o, vd, name, fixed, sites, slots=None, classes=None):
     else:
         ds = xr.Dataset({f"vd_{name}": vd[0]}, attrs={"gas_scheme": vd[1]})
         got = prepare_velocities(ds, [name], {}, min_slot, slots=slots, classes=cls)[name]
-    return fill_arrays(*got, sites)
+    return fill_arrays(*got, sites, counts=counts)
+
+
+@stage("fill_counts", freeze=True)
+def fill_counts(o, masks):
+    """The cumulative counts of the modelled and of the filled hours of a filled Vd
+    (`masks`: its (modelled, filled) masks, (site, receptor, time)), keyed by the masks'
+    content: the fills whose Vd have their gaps in the same hours (the met's, for
+    most species; the Monte Carlo's runs on scaled air, :mod:`workbench.analysis.airvd`)
+    hold one pair of count arrays."""
+    valid, was = masks
+    return {"c_valid": _count_cumulative(valid), "c_fill": _count_cumulative(was)}
 
 
 @stage("season_coverage")

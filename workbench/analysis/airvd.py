@@ -10,8 +10,11 @@ measured air.  With ``vd_follows_air`` they follow the drawn ratio:
    k of :data:`GRID_FACTORS` (stages ``air_scaled`` and ``velocities`` of the graph,
    keyed by their declared option fields and by the factor: nothing here writes a
    key), and the dry rows on them with the measured concentrations, both for the
-   species whose Vd follows the air only (:func:`grid_options`); the point run is
-   the grid's k = 1.  NH3 scaled by k moves the NH3/SO2 ratio by c = k and the acid
+   species whose Vd follows the air only (:func:`grid_options`; the runs make those
+   Vd alone, :func:`air_outputs`).  Each factor's rows are the stage
+   ``air_vd_rows``, its velocities, fills and sums made in a scratch graph that reads
+   the study's cache and is dropped with the rows (:func:`_rows_on_air`).  The point
+   run is the grid's k = 1.  NH3 scaled by k moves the NH3/SO2 ratio by c = k and the acid
    ratio by c = 1/k, and each of the two velocities takes its own ratio only, so one
    grid serves both options;
 2. each sampling period's part A_npr(c) of the species whose Vd follows the air (SO2,
@@ -40,11 +43,13 @@ Units: deposition [mol m-2], factors [1].
 """
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
 
-from ..graph import stage
+from ..graph import declare, stage
+from ..stages import ROW_OPTIONS, VELOCITY_OPTIONS
 from .drawratio import class_ratio, safe_ratio as _safe_ratio
 
 #: Factors k of the NH3 concentration the velocities are run on [1]: 9 from 0.5 to 2,
@@ -70,6 +75,28 @@ def air_scaled(o, air, species, factor):
     return air.assign(out)
 
 
+declare("air_vd_rows", {"dry": VELOCITY_OPTIONS, "budget": ROW_OPTIONS},
+        doc="the dry rows of the species whose Vd follows the air, on the velocities of "
+            "a run on scaled air (analysis.airvd; its velocities, fills and sums are "
+            "computed in a scratch graph, not cached)")
+
+
+def _rows_on_air(study, scaled, overrides, o, air, measured, met, catalogue, species,
+                 receptors, fixed):
+    """The ``air_vd_rows`` stage: the dry rows of `species` on the velocities of the
+    study's met with the air of the node `scaled` (the rows' concentrations are the
+    measured ones, `measured`).  Its inner results (the velocities of each group of
+    sites, their layout, the fills, the sums) are stages of a scratch graph
+    (:meth:`workbench.graph.Graph.scratch`): those that read no air are found in the
+    study's cache (the surface layer, canopy state, particle modes, hour slots, the
+    fills' hour counts), the others are dropped with the rows made."""
+    sub = study._in_graph(study.graph.scratch())
+    vd = sub._velocities_node(o.dry, overrides, receptors, air=scaled,
+                              outputs=air_outputs(species))
+    return sub._dry_rows_node(o.dry, o.budget, dict(fixed), overrides, receptors, vd=vd,
+                              species=species).value
+
+
 def targets(dry_options, fixed_velocity=None) -> tuple:
     """The species whose modelled Vd follows the air under `dry_options` (not those
     given a fixed velocity)."""
@@ -86,6 +113,15 @@ def grid_options(dry_options, want):
     import dataclasses
     return dataclasses.replace(
         dry_options, gases=tuple(g for g in dry_options.gases if g in want))
+
+
+def air_outputs(want) -> tuple:
+    """The velocity variables the grid's runs on scaled air make: the Vd of the species
+    of `want` (:func:`targets`) and the pairs asked for (``active``, what a site's
+    declared land-use changes read).  Every other variable would be the bits of the
+    point run's (its steps do not read the air), held again in a new layout at each
+    factor of the grid; the Vd made are the bits of a run making every variable."""
+    return ("active", *(f"vd_{sp}" for sp in want))
 
 
 def refusal(dry_options, budget_options, options) -> str | None:
@@ -274,9 +310,12 @@ def grid_pieces(study, result, point, periods, sites, n_r, histories, nss, censo
             continue
         scaled = study._run("air_scaled", deps={"air": air0},
                             params={"species": "NH3", "factor": k})
-        vd = study._velocities_node(grid_dry, overrides, receptors, air=scaled)
-        rows = study._dry_rows_node(grid_dry, bud_opt, fixed, overrides, receptors, vd=vd,
-                                    species=want).value
+        rows = study._run(
+            "air_vd_rows", {"dry": grid_dry, "budget": bud_opt},
+            {"air": scaled, "measured": air0, "met": study._input("met", study.inputs.met),
+             "catalogue": study._catalogue_node(overrides)},
+            {"species": want, "receptors": receptors, "fixed": fixed},
+            fn=functools.partial(_rows_on_air, study, scaled, overrides)).value
         on_grid[k] = _dry_layers(rows, periods, sites, n_r, air, histories, nss=nss,
                                  censored=censored)
     amount = {sp: _censored_values(air, sp, "half")[0] for sp in RATIO_SPECIES if sp in air}

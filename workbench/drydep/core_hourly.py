@@ -193,6 +193,30 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
 
     def keep(name):  # an output variable asked for or counted (outputs None: every one)
         return made is None or name in made
+
+    # with `outputs` the gases' step keeps only the arrays of the variables made (its
+    # key says which): the Monte Carlo's runs on scaled air keep their Vd, not copies
+    # of the Rb and the paths of Rc that the air leaves as they were
+    # (workbench.analysis.airvd.air_outputs)
+    kept = None if made is None else (tuple(sorted(made)), bool(opt.components))
+    exchange_out = {"vd": "vd_NH3_bidirectional", "emission": "nh3_emission_flux",
+                    "chi_s": "nh3_compensation_point"}
+
+    def needed(name):  # an entry of the gases' step read by a variable made
+        part, g = name.split("|", 1)
+        if part == "nh3bd":
+            return keep(exchange_out.get(g, name))
+        if part in ("rb", "rc", "vd"):
+            return keep(f"{part}_{g}")
+        if part == "codeposition_used":
+            return keep("so2_codeposition_used")
+        if part == "floor_used":
+            return g == "HNO3" and keep("rc_floor_used_HNO3")
+        if part in scheme.PATHS:
+            shared = part in getattr(scheme, "SHARED_PATHS", ())
+            return kept[1] and keep(f"rc_{part}" if shared else f"rc_{g}_{part}")
+        return True
+
     def gas_parts(opt):
         scheme = _gas.get_scheme(opt.gas_scheme)
         reads = getattr(scheme, "READS", ("lai", "cos_zenith"))  # LAI and sun when read
@@ -226,16 +250,16 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                 flat.update({f"nh3bd|{k}": v for k, v in _nh3.hourly_exchange(
                     comps["NH3"], rbs["NH3"], ra, temp, rh, receptors,
                     [str(x) for x in surf["site"].values], opt, acid_ratio=acid).items()})
-        return flat
+        return flat if kept is None else {k: v for k, v in flat.items() if needed(k)}
 
 
-    gp = _stage(cache, "gas_vd", gas_parts, opt, ("micromet", "canopy_state"), receptors=rset)
+    gp = _stage(cache, "gas_vd", gas_parts, opt, ("micromet", "canopy_state"), receptors=rset,
+                **({} if kept is None else {"kept": kept}))
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         for g in opt.gases:
-            rb = gp[f"rb|{g}"]
             comp = {k.split("|")[0]: v for k, v in gp.items() if k.endswith(f"|{g}")}
             if keep(f"rb_{g}"):
-                out[f"rb_{g}"] = srt(rb, "s m-1", f"quasi-laminar resistance of {g}")
+                out[f"rb_{g}"] = srt(gp[f"rb|{g}"], "s m-1", f"quasi-laminar resistance of {g}")
             if keep(f"rc_{g}"):
                 out[f"rc_{g}"] = srt(comp["rc"], "s m-1", f"surface resistance of {g} ({scheme.NAME})")
             if opt.components:  # the scheme's own paths, gas-independent ones once
@@ -259,11 +283,11 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                 if keep("rc_floor_used_HNO3"):
                     out["rc_floor_used_HNO3"] = srt(comp["floor_used"] & valid, "1",
                                                     "HNO3 surface resistance raised to its floor")
-            vd = comp["vd"]
             extra = {"note": NH3_NOTE} if g == "NH3" else {}
             if keep(f"vd_{g}"):
-                out[f"vd_{g}"] = srt(vd, "m s-1", f"dry deposition velocity of {g}", **extra)
-        if "nh3bd|vd" in gp:
+                out[f"vd_{g}"] = srt(comp["vd"], "m s-1", f"dry deposition velocity of {g}",
+                                     **extra)
+        if any(k.startswith("nh3bd|") for k in gp):
             if keep("vd_NH3_bidirectional"):
                 out["vd_NH3_bidirectional"] = srt(
                     gp["nh3bd|vd"], "m s-1", "NH3 deposition velocity of the canopy compensation "
@@ -275,45 +299,49 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
             if keep("nh3_compensation_point"):
                 out["nh3_compensation_point"] = srt(gp["nh3bd|chi_s"], "mol m-3",
                                                     "NH3 stomatal compensation point chi_s")
-        # each distinct mode once, all of them in one call (shared surface terms); the
-        # mass weight of each mode per site (docs/methods_dry_particles.md 10.1)
-        if particle_parts is None:
-            parts = _blocks.particle_parts(block, surf, opt)
-        else:  # found on every site of the call: this block's rows of the weights
-            parts = {sp: ([(mode, w[rows]) for mode, w in pp[0]],) + tuple(pp[1:])
-                     for sp, pp in particle_parts.items()}
-        modes = list(dict.fromkeys(mode for pp in parts.values() for mode, _ in pp[0]))
-        # read the cached modes before storing new ones: storing may evict them
-        found = {mode: _mode_lookup(cache, opt, mode) for mode in modes}
-        held = {mode: (f[1]["vd"], f[1]["vs"]) for mode, f in found.items()
-                if f[1] is not _graph.MISSING}
-        todo = [mode for mode in modes if mode not in held]
-        if todo:
-            view = found[todo[0]][2]          # the step's guarded view of the options
-            new = dict(zip(todo, _particles.mass_weighted_velocities(
-                todo, rh, us_r, ra, temp, pres, land, cat, wet, view.size_nodes,
-                settling=view.particle_settling, with_settling=True)))
-            for mode in todo:
-                if cache is not None:
-                    cache.store("particle_mode_vd", found[mode][0],
-                                {"vd": new[mode][0], "vs": new[mode][1]})
-                held[mode] = new[mode]
-        by_mode = held
-        for sp in opt.particles:
-            weights, coarse, source = parts[sp]
-            total = settle = 0.0
-            for mode, w in weights:
-                w = _fractions.broadcast_weight(w)
-                total = total + w * by_mode[mode][0]
-                settle = settle + w * by_mode[mode][1]
-            # Zhang et al. 2001, Eq. 1 with Rs > 0: v_s <= Vd <= v_s + 1/Ra, or a defect
-            _limit.check_aerodynamic_limit(
-                np.broadcast_to(total, shape3), settle, ra, sp, block["site"].values,
-                receptors, block["time"].values)
-            if keep(f"vd_{sp}"):
-                out[f"vd_{sp}"] = srt(total, "m s-1", f"mass-weighted dry deposition velocity of {sp} "
-                                      "(Zhang et al. 2001)", **_blocks.particle_attrs(
-                                          (particle_parts or parts)[sp]))
+        # the particles only where a Vd of theirs is made (a run on scaled air makes
+        # the gases' alone: its particles would be the point run's)
+        if made is None or any(keep(f"vd_{sp}") for sp in opt.particles):
+            # each distinct mode once, all of them in one call (shared surface terms); the
+            # mass weight of each mode per site (docs/methods_dry_particles.md 10.1)
+            if particle_parts is None:
+                parts = _blocks.particle_parts(block, surf, opt)
+            else:  # found on every site of the call: this block's rows of the weights
+                parts = {sp: ([(mode, w[rows]) for mode, w in pp[0]],) + tuple(pp[1:])
+                         for sp, pp in particle_parts.items()}
+            modes = list(dict.fromkeys(mode for pp in parts.values() for mode, _ in pp[0]))
+            # read the cached modes before storing new ones: storing may evict them
+            found = {mode: _mode_lookup(cache, opt, mode) for mode in modes}
+            held = {mode: (f[1]["vd"], f[1]["vs"]) for mode, f in found.items()
+                    if f[1] is not _graph.MISSING}
+            todo = [mode for mode in modes if mode not in held]
+            if todo:
+                view = found[todo[0]][2]          # the step's guarded view of the options
+                new = dict(zip(todo, _particles.mass_weighted_velocities(
+                    todo, rh, us_r, ra, temp, pres, land, cat, wet, view.size_nodes,
+                    settling=view.particle_settling, with_settling=True)))
+                for mode in todo:
+                    if cache is not None:
+                        cache.store("particle_mode_vd", found[mode][0],
+                                    {"vd": new[mode][0], "vs": new[mode][1]})
+                    held[mode] = new[mode]
+            by_mode = held
+            for sp in opt.particles:
+                weights, coarse, source = parts[sp]
+                total = settle = 0.0
+                for mode, w in weights:
+                    w = _fractions.broadcast_weight(w)
+                    total = total + w * by_mode[mode][0]
+                    settle = settle + w * by_mode[mode][1]
+                # Zhang et al. 2001, Eq. 1 with Rs > 0: v_s <= Vd <= v_s + 1/Ra, or a defect
+                _limit.check_aerodynamic_limit(
+                    np.broadcast_to(total, shape3), settle, ra, sp, block["site"].values,
+                    receptors, block["time"].values)
+                if keep(f"vd_{sp}"):
+                    out[f"vd_{sp}"] = srt(total, "m s-1",
+                                          f"mass-weighted dry deposition velocity of {sp} "
+                                          "(Zhang et al. 2001)", **_blocks.particle_attrs(
+                                              (particle_parts or parts)[sp]))
 
     # --- assemble -----------------------------------------------------------------------------
     def obukhov():
