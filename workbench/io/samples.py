@@ -207,8 +207,7 @@ def read_precipitation(path, catalogue, flag_map=None):
         ledger.notes.append(tab.header_again_note())
     if tab.end_of_day_note():
         ledger.notes.append(tab.end_of_day_note())
-    if tab.minute_end_note:
-        ledger.notes.append(tab.minute_end_note)
+    ledger.notes.extend(tab.minute_end_notes)
     if flag_note:
         ledger.notes.append(f"{tab.path.name}: {flag_note}")
     keep = ~empty
@@ -374,8 +373,7 @@ def read_air(path, catalogue, reference_state=None):
         ledger.notes.append(tab.header_again_note())
     if tab.end_of_day_note():
         ledger.notes.append(tab.end_of_day_note())
-    if tab.minute_end_note:
-        ledger.notes.append(tab.minute_end_note)
+    ledger.notes.extend(tab.minute_end_notes)
     keep = ~empty
     dvars = {
         "site": ("period", sites[keep].astype(str)),

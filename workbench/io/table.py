@@ -80,9 +80,11 @@ class RawTable:
     end_of_day: list = field(default_factory=list)
     #: Row indices (into :attr:`lines`) holding a 24:00 label in any time column.
     end_of_day_rows: list = field(default_factory=list)
-    #: The note of the ends written at minute 59 read as the next whole hour ("" for
-    #: none; :func:`.tabletimes.minute_ends`, set by the interval readers).
-    minute_end_note: str = ""
+    #: The notes of the ends written at minute 59 or 59:59 read as the next whole hour
+    #: (none: []; :func:`.tabletimes.inclusive_ends`, set by the interval readers).
+    minute_end_notes: list = field(default_factory=list)
+    #: The seconds each row's end was moved by that rule (None: not applied) [s].
+    end_moves: np.ndarray | None = None
     #: Notes of species given in two units, joined (:mod:`.unitswitch`).
     unit_switch_notes: list = field(default_factory=list)
     #: metadata key -> the 1-based line of its ``# key: value`` line.
