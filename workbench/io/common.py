@@ -9,11 +9,11 @@ import pandas as pd
 from ..errors import InputError, suggest
 from .ledger import consecutive_runs
 from .table import RawTable
+from .tabletimes import SUMMARY_ROW
 
 
 #: First words of a spreadsheet's totals or summary row (common practice of sheets).
-_SUMMARY = re.compile(r"(?:grand )?(?:totals?|sums?|mean|average|median|min(?:imum)?|"
-                      r"max(?:imum)?|count)\b", re.IGNORECASE)
+_SUMMARY = SUMMARY_ROW
 
 
 def _units_row(tab: RawTable, words) -> bool:

@@ -14,6 +14,10 @@ import pandas as pd
 from .ledger import compact_lines
 
 
+#: First words of a spreadsheet's totals or summary row (common practice of sheets), in
+#: a site or a time cell.
+SUMMARY_ROW = re.compile(r"(?:grand )?(?:totals?|sums?|mean|average|median|min(?:imum)?|"
+                         r"max(?:imum)?|count)\b", re.IGNORECASE)
 _OFFSET = re.compile(r"[T ]\d\d.*(?:Z|[+-]\d\d(?::?\d\d)?)$")
 
 #: Timestamps outside [YEARS[0], YEARS[1]) are typing slips in the year (common practice).
@@ -132,6 +136,26 @@ def late_seconds(text: pd.Series) -> np.ndarray:
     t = text.astype(str).str.strip()
     return np.where(t.str.fullmatch(_MINUTE_59).to_numpy(dtype=bool), 60,
                     np.where(t.str.fullmatch(_SECOND_59).to_numpy(dtype=bool), 1, 0))
+
+
+def minute_59_hint(t) -> str:
+    """The hint for an hourly label written at minute 59 or 59:59 (an hour's end with
+    its last minute or second included), "" for any other time [datetime64].
+
+    >>> minute_59_hint(np.datetime64("2021-01-01T00:59"))
+    ' (an hour end written at minute 59, its last minute included? write each hour end on the hour: 01:00, not 00:59)'
+    >>> minute_59_hint(np.datetime64("2021-01-01T00:30"))
+    ''
+    """
+    t = np.datetime64(t, "s")
+    past = int((t - t.astype("datetime64[h]")).astype(np.int64))
+    if past == 3540:
+        return (" (an hour end written at minute 59, its last minute included? write each "
+                "hour end on the hour: 01:00, not 00:59)")
+    if past == 3599:
+        return (" (an hour end written at 59:59, its last second included? write each "
+                "hour end on the hour: 01:00:00, not 00:59:59)")
+    return ""
 
 
 def inclusive_ends(start_text: pd.Series, end_text: pd.Series, start, end, group):
