@@ -373,7 +373,7 @@ def _interval_table(path, catalogue, required):
     # gap to the next row.  A start written at that same label (00:59 to 01:59 after
     # 00:00 to 00:59) is the same whole hour (before: an overlap with the moved end)
     s_move, e_move = inclusive_ends(tab.frame["start"], tab.frame["end"], start, end,
-                                    sites.astype(str) + "\x1f" + samplers.astype(str))
+                                    (sites, samplers))
     if e_move.any():
         tab.end_moves = e_move
         start = start + s_move.astype("timedelta64[s]")

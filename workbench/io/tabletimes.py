@@ -178,8 +178,9 @@ def inclusive_ends(start_text: pd.Series, end_text: pd.Series, start, end, group
         The labels as written.
     start, end : ndarray of datetime64
         The parsed start and end (UTC).
-    group : ndarray
-        A key per row (site and sampler): rows of one key follow each other.
+    group : ndarray, or a tuple of them
+        A key per row (or the keys, site and sampler): rows of one key follow each
+        other.
 
     Returns
     -------
@@ -204,7 +205,8 @@ def inclusive_ends(start_text: pd.Series, end_text: pd.Series, start, end, group
     sm, em = np.zeros(n, np.int64), np.zeros(n, np.int64)
     if not (own.any() and (s_late > 0).any()):
         return sm, np.where(own, e_late, 0)
-    key = pd.factorize(pd.Series(np.asarray(group)).astype(str))[0]
+    key = pd.MultiIndex.from_arrays([np.asarray(g) for g in group]).factorize()[0] \
+        if isinstance(group, tuple) else pd.factorize(np.asarray(group))[0]
     order = np.lexsort((end, start, key))
     g = key[order]
     so, eo, sl, el, ln = start[order], end[order], s_late[order], e_late[order], length[order]
