@@ -168,8 +168,11 @@ def _date_hint(v) -> str:
     hint (before, the scenario's error gave none)."""
     from .io.tabletimes import day_month_readings
     both = day_month_readings(str(v))
-    return f" (a date in day/month or month/day order? write year-month-day: {both})" \
-        if both else ""
+    if both:
+        return f" (a date in day/month or month/day order? write year-month-day: {both})"
+    if re.search(r"[T ](?:24:(?!00)\d\d|2[5-9]:\d\d|[3-9]\d:\d\d)", str(v)):
+        return " (an hour of 24 or more? hours run 00-23; only 24:00 may end a day)"
+    return ""
 
 
 def missing_input_expected(value, base: Path, cwd: Path | None = None) -> str:
@@ -227,6 +230,9 @@ _END_OF_DAY = re.compile(r"^\s*(\d{4}-\d\d-\d\d)[T ]24:00(:00)?\s*$")
 #: A date-time with a zone: a trailing ``Z`` (UTC) or an offset ``+hh:mm``.
 _ZONED = re.compile(r"^\s*\d{4}-\d\d-\d\d[T ]\d\d:\d\d(:\d\d(\.\d+)?)?"
                     r"(Z|[+-]\d\d:?\d\d)\s*$")
+#: The end of a day, 24:00, with a zone (``2021-12-31T24:00Z``, ``...24:00+02:00``).
+_END_OF_DAY_ZONED = re.compile(r"^\s*(\d{4}-\d\d-\d\d)[T ]24:00(?::00(?:\.0+)?)?"
+                               r"(Z|[+-]\d\d:?\d\d)\s*$")
 
 
 def _period_text(period: dict) -> dict:
@@ -249,9 +255,16 @@ def _period_text(period: dict) -> dict:
             out[key] = v.isoformat()
         elif isinstance(v, str) and _ZONED.match(v):
             # "2021-01-01T00:00Z" (Z is UTC) or "...+01:00": taken to UTC as the
-            # unquoted form is; before, a quoted Z was refused ("not a date")
+            # unquoted form is; before, a quoted Z was refused ("not a date").  A day's
+            # end, "2021-12-31T24:00Z", is the next day's 00:00 in its zone (before:
+            # "not a date", though the naive 24:00 was read)
+            eod = _END_OF_DAY_ZONED.match(v)
             try:
-                t = _dt.datetime.fromisoformat(v.strip())
+                if eod:
+                    t = _dt.datetime.fromisoformat(f"{eod.group(1)}T00:00{eod.group(2)}") \
+                        + _dt.timedelta(days=1)
+                else:
+                    t = _dt.datetime.fromisoformat(v.strip())
             except ValueError:
                 continue                     # not a date: said by _check_period
             t = t.astimezone(_dt.timezone.utc).replace(tzinfo=None)

@@ -9,11 +9,11 @@ import pandas as pd
 from ..errors import InputError, suggest
 from .ledger import consecutive_runs
 from .table import RawTable
+from .tabletimes import SUMMARY_ROW
 
 
 #: First words of a spreadsheet's totals or summary row (common practice of sheets).
-_SUMMARY = re.compile(r"(?:grand )?(?:totals?|sums?|mean|average|median|min(?:imum)?|"
-                      r"max(?:imum)?|count)\b", re.IGNORECASE)
+_SUMMARY = SUMMARY_ROW
 
 
 def _units_row(tab: RawTable, words) -> bool:
@@ -178,10 +178,13 @@ def check_overlaps(tab: RawTable, sites, samplers, start, end, mask=None, what="
     if over.any():
         k = int(np.flatnonzero(over)[0])
         i_prev, i = int(df["i"].iloc[k]), int(df["i"].iloc[k + 1])
+        moved = tab.end_moves is not None and tab.end_moves[i_prev] > 0
+        read = (f" (read as {np.datetime_as_string(end[i_prev], unit='m')} UTC: an end at "
+                "minute 59 or 59:59 is read as the next whole hour)" if moved else "")
         raise tab.error(f"overlapping {what}s from the same sampler", row=i, column="start",
                         value=tab.frame["start"].iloc[i],
-                        expected=f"a start at or after the end {tab.frame['end'].iloc[i_prev]} "
-                        f"of the {what} on line {int(tab.lines[i_prev])}")
+                        expected=f"a start at or after the end {tab.frame['end'].iloc[i_prev]}"
+                        f"{read} of the {what} on line {int(tab.lines[i_prev])}")
 
 
 def reason_where(mask, text) -> np.ndarray:

@@ -21,6 +21,7 @@ from .common import (REPEAT_REASON, check_sites, check_time_zones, join_reasons,
 from .ledger import Ledger
 from .readbytes import changed_while_read, record_whole
 from .table import RawTable
+from .tabletimes import minute_59_hint
 
 from .metvars import _UNITS_OUT, HOUR, MET_VARIABLES, convert_met  # noqa: F401 (re-exported)
 from .metvars import site_time_dataset
@@ -182,7 +183,8 @@ def check_hours(sites, t, where, name_row, off_hour=None, moved=None, differs=No
     if off_hour is None:
         off_hour = t != methours.floor_hour(t)
     if off_hour.any():
-        raise where(int(np.flatnonzero(off_hour)[0]), "timestamp not on the hour",
+        i = int(np.flatnonzero(off_hour)[0])
+        raise where(i, "timestamp not on the hour" + minute_59_hint(t[i]),
                     "hourly timestamps (minutes 00)")
     dup = pd.DataFrame({"s": sites, "t": t}).duplicated().to_numpy()
     if dup.any():

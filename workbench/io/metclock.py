@@ -52,6 +52,7 @@ import pandas as pd
 
 from ..surface.solar import (DEGREES_PER_HOUR, HOURS_PER_DAY, NS_PER_HOUR, SOLAR_NOON_HOUR,
                              solar_elevation_sine, time_parts)
+from .metlimits import negative_radiation_notes
 
 #: Solar constant [W m-2] (Kopp & Lean 2011, Geophys. Res. Lett. 38, L01706: 1360.8),
 #: without the Earth-Sun distance factor (+-3.4 % over the year; our simplification, a
@@ -527,7 +528,8 @@ def add_clock_notes(met, ledger, catalogue, path, group_records=None,
                     zoned_sites=()) -> None:
     """Append :func:`clock_notes` of a met Dataset just read to its ledger's notes (each
     met reader's last step: the CSV readers and the NetCDF/zarr path), and the sites it
-    judged to the ledger's ``clock_judged``.
+    judged to the ledger's ``clock_judged``; then the notes of radiation below 0
+    (:func:`.metlimits.negative_radiation_notes`).
 
     Parameters
     ----------
@@ -547,4 +549,6 @@ def add_clock_notes(met, ledger, catalogue, path, group_records=None,
     utc = path.suffix in (".nc", ".nc4", ".netcdf") or is_zarr_path(path)
     ledger.notes.extend(clock_notes(met, catalogue, path.name, group_records, utc,
                                     ledger.clock_judged, set(zoned_sites)))
+    # radiation below 0 kept by the hard range: said once, after the clock's notes
+    ledger.notes.extend(negative_radiation_notes(met, path.name))
 

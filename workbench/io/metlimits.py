@@ -228,3 +228,35 @@ def expected_station_pressure(elevation_m):
     """Station pressure of the ICAO standard atmosphere at an elevation [Pa]
     (:func:`workbench.surface.air.standard_pressure_at`)."""
     return standard_pressure_at(np.asarray(elevation_m, float))
+
+
+def negative_radiation_notes(met, file_name) -> list:
+    """One note per site whose solar radiation holds values below 0 that the hard range
+    keeps (down to -20 W/m2): a pyranometer's thermal offset at night (common practice),
+    kept as read in the met Dataset and taken as 0 (no light) by the dry deposition
+    chain (:mod:`workbench.drydep.micromet`).  Before, that was said nowhere.
+
+    Parameters
+    ----------
+    met : xarray.Dataset
+        Dims (site, time), ``solar_radiation`` [W m-2] after the checks.
+    file_name : str
+
+    >>> import xarray as xr
+    >>> sr = np.array([[0.0, -1.5, 300.0, -4.0, np.nan], [0.0, 5.0, 200.0, 0.0, 0.0]])
+    >>> met = xr.Dataset({"solar_radiation": (("site", "time"), sr)},
+    ...                  coords={"site": ["alpha", "beta"]})
+    >>> negative_radiation_notes(met, "met.csv")
+    ["met.csv: solar_radiation at site 'alpha' below 0 in 2 h (down to -4 W/m2; a radiometer's offset at night?): kept as read, taken as 0 (no light) by the dry deposition chain"]
+    """
+    if "solar_radiation" not in met:
+        return []
+    sr = met["solar_radiation"]
+    below = (sr < 0).sum("time").values
+    if not below.any():
+        return []
+    low = sr.min("time").values
+    return [f"{file_name}: solar_radiation at site {str(s)!r} below 0 in {int(k)} h (down "
+            f"to {float(v):.3g} W/m2; a radiometer's offset at night?): kept as read, "
+            "taken as 0 (no light) by the dry deposition chain"
+            for s, k, v in zip(met["site"].values, below, low) if k]

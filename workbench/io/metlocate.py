@@ -35,6 +35,7 @@ import pandas as pd
 from ..errors import InputError
 from . import methours
 from .table import _OFFSET, SAMPLE_MISSING_TEXTS, YEARS, RawTable, parse_iso
+from .tabletimes import minute_59_hint
 
 
 class Located:
@@ -253,7 +254,7 @@ def raise_first(path, meta, headers, raw_headers, firsts, catalogue, label, hour
     _, off_hour = methours.to_hour_ends(t, clock)
     if off_hour.any():                          # as workbench.io.met.check_hours
         i = int(np.flatnonzero(off_hour)[0])
-        raise tab.error("timestamp not on the hour", row=i, column="time",
+        raise tab.error("timestamp not on the hour" + minute_59_hint(t[i]), row=i, column="time",
                         value=tab.frame["time"].iloc[i], expected="hourly timestamps (minutes 00)")
     if repeat is not None:
         _raise_repeat(path, raw_headers, repeat, line_text, catalogue)

@@ -18,7 +18,7 @@ from ..units import concentration_kind, element_basis_header, to_amount
 from . import plausible as _plausible
 from .common import check_intervals, check_sites, join_reasons, reason_where, unit_error
 from .table import RawTable
-from .tabletimes import minute_end_note, minute_ends
+from .tabletimes import inclusive_end_notes, inclusive_ends
 
 
 #: Headers shown for missing required columns of the sample and air files.
@@ -367,15 +367,20 @@ def _interval_table(path, catalogue, required):
     off = catalogue.utc_offsets(sites)
     start, end = tab.times("start", off), tab.times("end", off)
     check_intervals(tab, start, end)
-    # an end inclusive to the minute (00:00 to 00:59): the period ends on the hour, with
-    # a note; before, a 59-minute period and a minute's gap to the next row
-    late = minute_ends(tab.frame["end"], start, end)
-    if late.any():
-        end = np.where(late, end + np.timedelta64(60, "s"), end)
-        tab.minute_end_note = minute_end_note(tab.path.name,
-                                              tab.raw_headers.get("end", "end"),
-                                              tab.lines[late])
     samplers = tab.text("sampler_id") if tab.has("sampler_id") else np.full(n, "", object)
+    # an end inclusive to the minute (00:00 to 00:59) or the second (00:59:59): the
+    # period ends on the hour, with a note; before, a 59-minute period and a minute's
+    # gap to the next row.  A start written at that same label (00:59 to 01:59 after
+    # 00:00 to 00:59) is the same whole hour (before: an overlap with the moved end)
+    s_move, e_move = inclusive_ends(tab.frame["start"], tab.frame["end"], start, end,
+                                    (sites, samplers))
+    if e_move.any():
+        tab.end_moves = e_move
+        start = start + s_move.astype("timedelta64[s]")
+        end = end + e_move.astype("timedelta64[s]")
+        tab.minute_end_notes = inclusive_end_notes(
+            tab.path.name, tab.raw_headers.get("end", "end"),
+            tab.raw_headers.get("start", "start"), s_move, e_move, tab.lines)
     return tab, n, sites, start, end, samplers
 
 

@@ -21,6 +21,7 @@ from ..units import MM_PER_M, Q_, convert_plain
 from .common import (check_overlaps, check_time_zones, duplicate_rows, join_reasons, reason_where,
                      repeat_reasons, unit_error, unused_note)
 from .gaugerows import check_gauge_sampler
+from .gaugetotal import running_totals
 from .ledger import Ledger
 from .samplerids import check_spellings, typo_notes
 from .shifted import check_shifted
@@ -104,6 +105,13 @@ def read_precipitation(path, catalogue, flag_map=None):
         return v
 
     gauge = depth("gauge_depth")
+    # a gauge's running total written as each sample's depth: masked with its reason
+    # (before: read as the depths, the wet deposition many times too high in silence)
+    total, total_why, total_notes = running_totals(tab.path.name, sites, samplers, start,
+                                                   gauge, tab.lines, rows=~repeat)
+    if total.any():
+        gauge = np.where(total, np.nan, gauge)
+        parts.append(total_why)
     if tab.has("sample_depth"):
         sample = depth("sample_depth")
     elif tab.has("sample_volume") and tab.has("collector_area"):
@@ -197,6 +205,7 @@ def read_precipitation(path, catalogue, flag_map=None):
     ledger = Ledger.for_rows(tab.path, tab.lines, sites, reasons, empty)
     if repeat_note:
         ledger.notes.append(repeat_note)
+    ledger.notes.extend(total_notes)
     if unknown:
         ledger.notes.append(unused_note(tab.path.name, unknown))
     if tab.missing_note():
@@ -207,8 +216,7 @@ def read_precipitation(path, catalogue, flag_map=None):
         ledger.notes.append(tab.header_again_note())
     if tab.end_of_day_note():
         ledger.notes.append(tab.end_of_day_note())
-    if tab.minute_end_note:
-        ledger.notes.append(tab.minute_end_note)
+    ledger.notes.extend(tab.minute_end_notes)
     if flag_note:
         ledger.notes.append(f"{tab.path.name}: {flag_note}")
     keep = ~empty
@@ -374,8 +382,7 @@ def read_air(path, catalogue, reference_state=None):
         ledger.notes.append(tab.header_again_note())
     if tab.end_of_day_note():
         ledger.notes.append(tab.end_of_day_note())
-    if tab.minute_end_note:
-        ledger.notes.append(tab.minute_end_note)
+    ledger.notes.extend(tab.minute_end_notes)
     keep = ~empty
     dvars = {
         "site": ("period", sites[keep].astype(str)),

@@ -30,7 +30,7 @@ from .linechunks import meta_line
 from .tablecells import (CENSORED_ELSEWHERE, FORMULA_ERRORS, MISSING_TEXTS,  # noqa: F401
                          SAMPLE_MISSING_TEXTS, _BLANK, number_hint)
 # the time texts (defined here before)
-from .tabletimes import (YEARS, _OFFSET, day_month_readings, end_of_day,  # noqa: F401
+from .tabletimes import (SUMMARY_ROW, YEARS, _OFFSET, day_month_readings, end_of_day,  # noqa: F401
                          end_of_day_note, order_witness, parse_iso)
 # the file's text and the shape of its rows (defined here before)
 from .tablerows import (_header_again, _open_text, _top_lines_again, check_unit_brackets,  # noqa: F401
@@ -80,9 +80,11 @@ class RawTable:
     end_of_day: list = field(default_factory=list)
     #: Row indices (into :attr:`lines`) holding a 24:00 label in any time column.
     end_of_day_rows: list = field(default_factory=list)
-    #: The note of the ends written at minute 59 read as the next whole hour ("" for
-    #: none; :func:`.tabletimes.minute_ends`, set by the interval readers).
-    minute_end_note: str = ""
+    #: The notes of the ends written at minute 59 or 59:59 read as the next whole hour
+    #: (none: []; :func:`.tabletimes.inclusive_ends`, set by the interval readers).
+    minute_end_notes: list = field(default_factory=list)
+    #: The seconds each row's end was moved by that rule (None: not applied) [s].
+    end_moves: np.ndarray | None = None
     #: Notes of species given in two units, joined (:mod:`.unitswitch`).
     unit_switch_notes: list = field(default_factory=list)
     #: metadata key -> the 1-based line of its ``# key: value`` line.
@@ -380,7 +382,9 @@ class RawTable:
         if bad.any():
             idx = s.index[np.flatnonzero(bad)[0]]
             hint = ""
-            if re.fullmatch(r"\d{5}(\.\d*)?", str(s.loc[idx])):
+            if SUMMARY_ROW.match(str(s.loc[idx]).strip()):
+                hint = " (a totals or summary row from a spreadsheet? remove it)"
+            elif re.fullmatch(r"\d{5}(\.\d*)?", str(s.loc[idx])):
                 hint = " (an Excel date serial number? format the column as a date first)"
             elif re.search(r"[T ](?:2[4-9]|[3-9]\d):\d\d", str(s.loc[idx])):
                 hint = (" (an hour of 24 or more? hours run 00-23; only 24:00 may end a "

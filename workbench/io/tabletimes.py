@@ -14,6 +14,10 @@ import pandas as pd
 from .ledger import compact_lines
 
 
+#: First words of a spreadsheet's totals or summary row (common practice of sheets), in
+#: a site or a time cell.
+SUMMARY_ROW = re.compile(r"(?:grand )?(?:totals?|sums?|mean|average|median|min(?:imum)?|"
+                         r"max(?:imum)?|count)\b", re.IGNORECASE)
 _OFFSET = re.compile(r"[T ]\d\d.*(?:Z|[+-]\d\d(?::?\d\d)?)$")
 
 #: Timestamps outside [YEARS[0], YEARS[1]) are typing slips in the year (common practice).
@@ -116,47 +120,147 @@ def order_witness(texts: pd.Series):
 #: An end written at minute 59 of an hour, without seconds or with 00 (a logger's or a
 #: spreadsheet's end inclusive to the minute: 00:00 to 00:59 for the hour 00-01).
 _MINUTE_59 = re.compile(r"\d{4}-\d\d-\d\d[T ]\d\d:59(?::00(?:\.0+)?)?(?:Z|[+-]\d\d(?::?\d\d)?)?")
+#: An end written at second 59 of minute 59 (inclusive to the second: 00:00:00 to
+#: 00:59:59 for the hour 00-01).
+_SECOND_59 = re.compile(r"\d{4}-\d\d-\d\d[T ]\d\d:59:59(?:\.0+)?(?:Z|[+-]\d\d(?::?\d\d)?)?")
 
 
-def minute_ends(end_text: pd.Series, start, end) -> np.ndarray:
-    """True for the rows whose end is written at minute 59 of an hour and whose length is
-    a whole number of hours less one minute: an end inclusive to the minute, read as
-    ending one minute later, on the hour [bool].
+def late_seconds(text: pd.Series) -> np.ndarray:
+    """How far each label stands before the next whole hour when it is written at minute
+    59 (60 s) or at 59:59 (1 s); 0 for any other label [s, int].
+
+    >>> late_seconds(pd.Series(["2021-01-01T00:59", "2021-01-01 00:59:59+01:00",
+    ...                         "2021-01-01T01:00", "2021-01-01T00:59:30"])).tolist()
+    [60, 1, 0, 0]
+    """
+    t = text.astype(str).str.strip()
+    return np.where(t.str.fullmatch(_MINUTE_59).to_numpy(dtype=bool), 60,
+                    np.where(t.str.fullmatch(_SECOND_59).to_numpy(dtype=bool), 1, 0))
+
+
+def minute_59_hint(t) -> str:
+    """The hint for an hourly label written at minute 59 or 59:59 (an hour's end with
+    its last minute or second included), "" for any other time [datetime64].
+
+    >>> minute_59_hint(np.datetime64("2021-01-01T00:59"))
+    ' (an hour end written at minute 59, its last minute included? write each hour end on the hour: 01:00, not 00:59)'
+    >>> minute_59_hint(np.datetime64("2021-01-01T00:30"))
+    ''
+    """
+    t = np.datetime64(t, "s")
+    past = int((t - t.astype("datetime64[h]")).astype(np.int64))
+    if past == 3540:
+        return (" (an hour end written at minute 59, its last minute included? write each "
+                "hour end on the hour: 01:00, not 00:59)")
+    if past == 3599:
+        return (" (an hour end written at 59:59, its last second included? write each "
+                "hour end on the hour: 01:00:00, not 00:59:59)")
+    return ""
+
+
+def inclusive_ends(start_text: pd.Series, end_text: pd.Series, start, end, group):
+    """The moves that read ends written inclusive (at minute 59, ``00:00`` to ``00:59``,
+    or at 59:59) as the next whole hour, and a start written at that same label as the
+    same whole hour [s, int].
+
+    An end is moved (60 s, or 1 s at 59:59) when its period is a whole number of hours
+    less that much.  A row whose start is the previous row's end (same `group`, rows in
+    time order), written at minute 59 (or 59:59) with that end moved, starts on the same
+    whole hour: the label names one instant on both sides (``00:00`` to ``00:59``, then
+    ``00:59`` to ``01:59``: both 01:00).  Its end, at the same minute, then closes a
+    whole number of hours less a minute and is moved too, and so on down the run of
+    rows that share their labels.  A run whose first row starts at minute 59 (``00:59``
+    to ``01:59``, ``01:59`` to ``02:59``) is of whole hours and read as written.
 
     Parameters
     ----------
-    end_text : pandas.Series of str
-        The end labels as written.
+    start_text, end_text : pandas.Series of str
+        The labels as written.
     start, end : ndarray of datetime64
         The parsed start and end (UTC).
+    group : ndarray, or a tuple of them
+        A key per row (or the keys, site and sampler): rows of one key follow each
+        other.
 
-    >>> t = np.array(["2021-01-01T00:00", "2021-01-01T01:00", "2021-01-01T02:00"],
-    ...              dtype="datetime64[ns]")
-    >>> e = np.array(["2021-01-01T00:59", "2021-01-01T01:30", "2021-01-08T01:59"],
-    ...              dtype="datetime64[ns]")
-    >>> minute_ends(pd.Series(["2021-01-01T00:59", "2021-01-01T01:30",
-    ...                        "2021-01-08T01:59"]), t, e).tolist()
-    [True, False, True]
+    Returns
+    -------
+    (start_move, end_move) : two int arrays [s]: 0, 1 or 60 per row.
+
+    >>> t = lambda *x: np.array(x, dtype="datetime64[ns]")
+    >>> s = ["2021-01-01T00:00", "2021-01-01T00:59", "2021-01-01T01:59", "2021-01-01T05:00"]
+    >>> e = ["2021-01-01T00:59", "2021-01-01T01:59", "2021-01-01T02:59", "2021-01-01T05:59"]
+    >>> sm, em = inclusive_ends(pd.Series(s), pd.Series(e), t(*s), t(*e), np.zeros(4))
+    >>> sm.tolist(), em.tolist()
+    ([0, 60, 60, 0], [60, 60, 60, 60])
+    >>> sm, em = inclusive_ends(pd.Series(s[1:3]), pd.Series(e[1:3]), t(*s[1:3]),
+    ...                         t(*e[1:3]), np.zeros(2))
+    >>> sm.tolist(), em.tolist()
+    ([0, 0], [0, 0])
     """
-    written = end_text.astype(str).str.strip().str.fullmatch(_MINUTE_59).to_numpy(dtype=bool)
-    length = (np.asarray(end) - np.asarray(start)).astype("timedelta64[s]").astype(np.int64)
-    return written & (length > 0) & (length % 3600 == 3540)
+    start, end = np.asarray(start), np.asarray(end)
+    n = len(start)
+    s_late, e_late = late_seconds(start_text), late_seconds(end_text)
+    length = (end - start).astype("timedelta64[s]").astype(np.int64)
+    own = (e_late > 0) & (length > 0) & (length % 3600 == 3600 - e_late)
+    sm, em = np.zeros(n, np.int64), np.zeros(n, np.int64)
+    if not (own.any() and (s_late > 0).any()):
+        return sm, np.where(own, e_late, 0)
+    key = pd.MultiIndex.from_arrays([np.asarray(g) for g in group]).factorize()[0] \
+        if isinstance(group, tuple) else pd.factorize(np.asarray(group))[0]
+    order = np.lexsort((end, start, key))
+    g = key[order]
+    so, eo, sl, el, ln = start[order], end[order], s_late[order], e_late[order], length[order]
+    joined = np.zeros(n, bool)
+    joined[1:] = (g[1:] == g[:-1]) & (so[1:] == eo[:-1]) & (sl[1:] > 0) & (
+        sl[1:] == el[:-1])
+    # a row joined to the one before with both labels at the same :59 form: its end
+    # moves as the run's first row's does
+    through = joined & (sl == el) & (ln > 0) & (ln % 3600 == 0)
+    head = np.maximum.accumulate(np.where(through, 0, np.arange(n)))
+    moved = own[order][head]
+    prev = np.zeros(n, bool)
+    prev[1:] = moved[:-1]
+    sm[order] = np.where(joined & prev, sl, 0)
+    em[order] = np.where(moved, el, 0)
+    return sm, em
 
 
-def minute_end_note(file_name: str, column: str, lines) -> str:
-    """The ledger note of the rows whose end at minute 59 was read as the next whole hour
-    ("" for none), with the count of the rows and their lines.
+def inclusive_end_notes(file_name: str, end_column: str, start_column: str,
+                        start_move, end_move, lines) -> list:
+    """The ledger notes of the labels moved by :func:`inclusive_ends`: one per form
+    (minute 59, 59:59) with the count of the rows and their lines ([] for none).
 
-    >>> minute_end_note("air.csv", "end", [3, 4, 5])
-    "air.csv: ends at minute 59 in 'end' (00:00 to 00:59, the end minute included) read as the next whole hour (00:00 to 01:00): 3 rows (lines 3-5); write the end as the next hour, 01:00, to silence this note"
+    >>> inclusive_end_notes("air.csv", "end", "start", [0, 0, 0], [60, 60, 60], [3, 4, 5])
+    ["air.csv: ends at minute 59 in 'end' (00:00 to 00:59, the end minute included) read as the next whole hour (00:00 to 01:00): 3 rows (lines 3-5); write the end as the next hour, 01:00, to silence this note"]
+    >>> print(inclusive_end_notes("p.csv", "end", "start", [0, 1], [1, 1], [2, 3])[0]
+    ...       .split("; ")[2])
+    starts at 59:59 that are the end of the row before in 'start' (00:59:59 to 01:59:59 after 00:00:00 to 00:59:59) read as that same whole hour (01:00 to 02:00): 1 row (line 3)
     """
-    v = np.unique(np.asarray(lines, dtype=np.int64))
-    if not len(v):
-        return ""
-    return (f"{file_name}: ends at minute 59 in {column!r} (00:00 to 00:59, the end "
-            "minute included) read as the next whole hour (00:00 to 01:00): "
-            f"{len(v)} row{'s' * (len(v) != 1)} ({compact_lines(v)}); write the end as "
-            "the next hour, 01:00, to silence this note")
+    sm, em = np.asarray(start_move), np.asarray(end_move)
+    lines = np.asarray(lines, dtype=np.int64)
+    out = []
+    for late, at, eg, sg, whole in (
+            (60, "minute 59", "(00:00 to 00:59, the end minute included)",
+             "(00:59 to 01:59 after 00:00 to 00:59)", "01:00"),
+            (1, "59:59", "(00:00:00 to 00:59:59, the end second included)",
+             "(00:59:59 to 01:59:59 after 00:00:00 to 00:59:59)", "01:00")):
+        e, s = np.unique(lines[em == late]), np.unique(lines[sm == late])
+        if not len(e):
+            continue
+        text = (f"{file_name}: ends at {at} in {end_column!r} {eg} read as the next whole "
+                f"hour (00:00 to 01:00): {_rows(e)}; write the end as the next hour, "
+                f"{whole}, to silence this note")
+        if len(s):
+            text += (f"; starts at {at} that are the end of the row before in "
+                     f"{start_column!r} {sg} read as that same whole hour (01:00 to "
+                     f"02:00): {_rows(s)}")
+        out.append(text)
+    return out
+
+
+def _rows(lines) -> str:
+    """``3 rows (lines 3-5)``, ``1 row (line 3)``."""
+    return f"{len(lines)} row{'s' * (len(lines) != 1)} ({compact_lines(lines)})"
 
 
 def end_of_day_note(file_name: str, columns, lines) -> str:

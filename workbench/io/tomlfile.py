@@ -72,6 +72,9 @@ _BARE_BOOL = re.compile(r"=\s*(True|False|TRUE|FALSE|[Yy]es|[Nn]o|YES|NO)\s*(#.*
 _BARE_WORD = re.compile(r"=\s*([A-Za-z_][^\s\"'#\[\]{}]*)\s*(#.*)?$")
 _DECIMAL_COMMA = re.compile(r"=\s*([-+]?\d+),(\d+)\s*(#.*)?$")
 _BARE_DATE = re.compile(r"=\s*(\d{1,4}[/.]\d{1,2}[/.]\d{1,4}[^#]*?)\s*(#.*)?$")
+#: An unquoted date-time at 24:00 (the end of a day), which TOML refuses (hours 00-23).
+_BARE_END_OF_DAY = re.compile(r"=\s*(\d{4}-\d\d-\d\d)[T ]24:00(?::00(?:\.0+)?)?"
+                              r"(Z|[+-]\d\d:\d\d)?\s*(#.*)?$")
 
 
 def _twice_hint(exc) -> str:
@@ -95,6 +98,8 @@ def _value_hint(text, line) -> str:
     "; write true or false, lower case (TOML's booleans): got True"
     >>> _value_hint("cl_nut_n = 714,5", 1)
     '; a decimal comma? write 714.5'
+    >>> print(_value_hint("end = 2021-12-31T24:00:00Z", 1))
+    ; TOML's date-times take the hours 00-23: write the end of 2021-12-31 as the next day's 00:00, 2022-01-01T00:00:00Z, or in quotes, "2021-12-31T24:00Z" (read so)
     >>> _value_hint('resolution = year', 1)
     '; write text in quotes: resolution = "year"'
     """
@@ -110,6 +115,17 @@ def _value_hint(text, line) -> str:
     m = _DECIMAL_COMMA.search(s)
     if m:
         return f"; a decimal comma? write {m.group(1)}.{m.group(2)}"
+    m = _BARE_END_OF_DAY.search(s)
+    if m:
+        import datetime as _dt
+        try:
+            day = _dt.date.fromisoformat(m.group(1)) + _dt.timedelta(days=1)
+        except ValueError:
+            return ""
+        zone = m.group(2) or ""
+        return (f"; TOML's date-times take the hours 00-23: write the end of "
+                f"{m.group(1)} as the next day's 00:00, {day.isoformat()}T00:00:00{zone}, "
+                f"or in quotes, \"{m.group(1)}T24:00{zone}\" (read so)")
     m = _BARE_WORD.search(s) or _BARE_DATE.search(s)
     if m and m.group(1).lower() not in ("true", "false", "inf", "nan"):
         key = s[:s.index("=")].strip()
