@@ -245,3 +245,29 @@ def test_gap_hours_per_period_by_hand():
     w = met_gap_words(c, np.array([24, 24, 24]), ("wind_speed", "temperature"))
     assert w[0, 1] == ("met gaps in the period (of its 24 h): no met row in 4 h; wind "
                        "speed without a value in 6 h")
+
+
+def test_both_rows_of_a_split_pair_name_the_blank_stretch(scenario, tmp_path_factory):
+    """``pair_split = "all_particle"``: the pNH4 row holds NH3 + pNH4 at the particle Vd,
+    its air coverage the weaker member's, so the month of NH3 blank in v01's filter
+    pack drives its number; its note said "5.9 weeks without a usable air sample" with
+    no sampler nor dates (they were on the NH3 row only, which the split sets to 0).
+    Now both rows of the pair name the stretch; the site without it names none."""
+    gap = ("NH3 blank in the samples of v01-F1 from 2016-06-02T14:00 to "
+           "2016-07-07T14:00 UTC")
+    split = scenario.parent / "scenario_all_particle.toml"
+    split.write_text(scenario.read_text(encoding="utf-8").replace(
+        "[budget]\n", '[budget]\npair_split = "all_particle"\n'), encoding="utf-8")
+    assert 'pair_split = "all_particle"' in split.read_text(encoding="utf-8")
+    _, result, _ = run_scenario(split, tmp_path_factory.mktemp("split") / "out",
+                                quiet=True, resolution="year")
+    t = result.table
+    dry = t[(t["pathway"] == "dry") & (t["period"] == "2016")].groupby(
+        ["site", "species"]).first()
+    into, zero = dry.loc[("v01", "pNH4")], dry.loc[("v01", "NH3")]
+    assert into["status"] != "missing" and zero["flux_kg_ha_yr"] == 0.0
+    assert into["air_coverage"] == pytest.approx(0.886, abs=1e-3)    # NH3's, the weaker
+    assert "5.9 weeks without a usable air sample" in into["note"]
+    assert gap in into["note"] and gap in zero["note"]
+    assert "blank in" not in str(dry.loc[("v02", "pNH4"), "note"])
+    assert "blank in" not in str(dry.loc[("v02", "NH3"), "note"])
