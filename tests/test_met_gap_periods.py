@@ -21,6 +21,11 @@ from workbench.cli import run_scenario
 from tiny_inputs import make_analyst_network
 
 WIND_GAP = ("2016-03-01T01:00", "2016-04-12T00:00")      # inclusive labels, 1,008 rows
+#: Eight weeks without wind speed (56 d x 24 h = 1,344 rows) at v01 of a two-year record:
+#: the diurnal fill draws on the other year's spring, so the Vd of 15.6 % of 2016's hours
+#: behind the flux is filled and the year's dry rows, and its S and N totals, read
+#: ``filled``.
+FILL_GAP = ("2016-03-01T01:00", "2016-04-26T00:00")
 
 
 def _blank_wind(path, site, lo, hi):
@@ -53,6 +58,14 @@ def _blank_nh3(path, site, month):
             n += 1
     path.write_text("".join(lines), encoding="utf-8")
     return n
+
+
+def make_filled_year(folder):
+    """The invented network (1 site, 2016-2017) with :data:`FILL_GAP` planted at v01:
+    a yearly S and N total of 2016 that is ``filled``; returns the scenario path."""
+    scen = make_analyst_network(folder, n_sites=1, years=2, imperfections={})
+    assert _blank_wind(scen.parent / "met.csv.gz", "v01", *FILL_GAP) == 1344
+    return scen
 
 
 @pytest.fixture(scope="module")
@@ -271,3 +284,23 @@ def test_both_rows_of_a_split_pair_name_the_blank_stretch(scenario, tmp_path_fac
     assert gap in into["note"] and gap in zero["note"]
     assert "blank in" not in str(dry.loc[("v02", "pNH4"), "note"])
     assert "blank in" not in str(dry.loc[("v02", "NH3"), "note"])
+
+
+def test_console_names_the_filled_years(tmp_path_factory):
+    """``workbench run`` counted "3 filled" for the S and N totals of 2016 (its Vd filled
+    over eight weeks without wind speed) and named no site nor year; it now names them,
+    within 79 columns (tests/test_console_width.py)."""
+    import contextlib
+    import io
+    from workbench.cli import main
+    from test_console_width import _too_wide
+    tmp = tmp_path_factory.mktemp("filledrun")
+    scen = make_filled_year(tmp / "in")
+    out = io.StringIO()
+    with contextlib.redirect_stdout(out):
+        assert main(["run", str(scen), "--out", str(tmp / "out"), "--quiet"]) == 0
+    text = out.getvalue()
+    said = " ".join(text.split())
+    assert ("S: 3 complete, 3 filled (v01 2016 in 3 receptors); N: 3 complete, 3 filled "
+            "(v01 2016 in 3 receptors)") in said, text
+    assert _too_wide(text) == []
