@@ -304,3 +304,45 @@ def test_console_names_the_filled_years(tmp_path_factory):
     assert ("S: 3 complete, 3 filled (v01 2016 in 3 receptors); N: 3 complete, 3 filled "
             "(v01 2016 in 3 receptors)") in said, text
     assert _too_wide(text) == []
+
+
+def test_a_component_failing_air_coverage_and_flux_hours_names_both(tmp_path_factory):
+    """v01 of a one-year record without its air samples of January to March (air
+    coverage 73.3 %, minimum 75 %) and without wind speed for 40 days of summer (no
+    other summer to fill the Vd from: a flux in 67.6 % of the year).  Before, the dry
+    rows' completeness_failure named the air coverage alone, and so did the totals,
+    the console and the span row; the lower share of hours with a flux was in the note
+    in other words only ("flux known for part of the sampled hours only")."""
+    from workbench.cli_status import failing_lines
+    tmp = tmp_path_factory.mktemp("bothfail")
+    scen = make_analyst_network(tmp / "in", n_sites=1, years=1, imperfections={})
+    air = scen.parent / "air.csv"
+    lines = air.read_text(encoding="utf-8").splitlines(keepends=True)
+    kept = [ln for ln in lines if ln.startswith("#") or not (
+        ln.startswith("v01,") and ln.split(",")[1][:7] in ("2016-01", "2016-02", "2016-03"))]
+    assert len(lines) - len(kept) == 13
+    air.write_text("".join(kept), encoding="utf-8")
+    assert _blank_wind(scen.parent / "met.csv.gz", "v01", "2016-07-01T01:00",
+                       "2016-08-10T00:00") == 960
+    _, result, _ = run_scenario(scen, tmp / "out", quiet=True, resolution="year")
+    t = result.table
+    both = ("air coverage below minimum (73.3 % of the period; minimum 75 %), hours with "
+            "a known flux below minimum (67.6 % of the period; minimum 75 %)")
+    so2 = t[(t["species"] == "SO2") & (t["period"] == "2016")].iloc[0]
+    assert so2["air_coverage"] == pytest.approx(0.7334, abs=1e-4)
+    assert so2["flux_coverage"] == pytest.approx(0.6760, abs=1e-4)
+    assert not so2["passes"] and so2["completeness_failure"] == both
+    total = t[(t["pathway"] == "total") & (t["element"] == "S") & (t["period"] == "2016")]
+    assert (total["completeness_failure"] == "SO2 pSO4: " + both).all()
+    said = failing_lines(t)
+    assert "  v01 2016: S N: " + both in said, said
+    # a flux share equal to the air coverage (no sampled hour without a flux) is the
+    # same share: said once
+    from workbench.budget_options import BudgetOptions
+    from workbench.budgetstatus_dry import dry_failure_words
+    once = dry_failure_words(np.array([0.7, 0.7]), np.array([0.7, 0.5]),
+                             np.array([True, False]), BudgetOptions())
+    assert once.tolist() == [
+        "air coverage below minimum (70.0 % of the period; minimum 75 %)",
+        "air coverage below minimum (70.0 % of the period; minimum 75 %), hours with a "
+        "known flux below minimum (50.0 % of the period; minimum 75 %)"]
