@@ -182,6 +182,46 @@ def component_rows(ds: xr.Dataset) -> pd.DataFrame:
     return _sorted(frame[active])
 
 
+def total_note_rows(ds: xr.Dataset) -> pd.DataFrame:
+    """budget.csv's total rows (pathway ``total``, species ``all``) of `ds` with their
+    ``note``, ``status`` and the keys (site, receptor, period, element): the same notes
+    as :func:`budget_table` gives them (:func:`_sum_notes` over the component notes, a
+    total's own note first), without the deposition, its units, fractions and the other
+    sum rows.  What the site explorer's gap line reads on every change
+    (:meth:`workbench.ui.apps.SiteExplorer._gaps_html`), where a change builds no
+    whole table (tests/ui/test_derived_split.py)."""
+    v = ds.variables
+
+    def flat(var, dim):
+        return v[var].transpose("site", "receptor", "period", dim).values.reshape(-1)
+
+    def frame(dim, element, pathway, species, note, status):
+        shape = v[status].transpose("site", "receptor", "period", dim).shape
+        idx = np.indices(shape).reshape(4, -1)
+        active = v["active"].transpose("site", "receptor").values[idx[0], idx[1]]
+        f = pd.DataFrame({
+            "site": _labels(v["site"].values, idx[0]),
+            "receptor": _labels(v["receptor"].values, idx[1]),
+            "period_start": pd.to_datetime(v["period_start"].values[idx[2]]),
+            "element": _labels(np.asarray(element), idx[3]),
+            "pathway": _labels(np.asarray(pathway), idx[3]),
+            "species": _labels(np.asarray(species), idx[3]),
+            "status": _labels(flat(status, dim)),
+            "period": _labels(v["period"].values, idx[2]),
+            "note": (_labels(flat(note, dim)) if note in v and dim in v[note].dims
+                     else np.full(idx.shape[1], "", dtype=object))})
+        return f[active]
+    names = [str(t) for t in v["total"].values]
+    comps = frame("component", v["element"].values, v["pathway"].values,
+                  v["species"].values, "note", "status")
+    tots = frame("total", [t.split("_")[0] for t in names],
+                 [t.split("_")[1] for t in names], ["all"] * len(names), "total_note",
+                 "total_status")
+    rows = _sum_notes(pd.concat([comps, tots], ignore_index=True))
+    rows = rows[(rows["pathway"] == "total") & (rows["species"] == "all")]
+    return rows.drop(columns="period_start").reset_index(drop=True)
+
+
 #: The data variables of a budget Dataset that :func:`budget_table` reads with `lean`
 #: (besides the coordinates of their axes: site, receptor, period, period_start,
 #: annual_factor, element, pathway, species, total).

@@ -116,6 +116,17 @@ def test_site_explorer_says_the_gap_under_its_summary_line(explorer_v02):
     kids = next(list(b.children) for b in boxes(app)
                 if app.change_w in getattr(b, "children", ()))
     assert kids.index(app.gaps_w) == kids.index(app.change_w) + 1
+    # the notes those of budget.csv's total rows (read without building its table)
+    from workbench.tables import budget_table
+    from workbench.tables_budget import total_note_rows
+    full = budget_table(app.result.years)
+    full = full[(full["pathway"] == "total") & (full["species"] == "all")]
+    key = ["site", "receptor", "period", "element"]
+    light = total_note_rows(app.result.years).set_index(key).sort_index()
+    full = full.set_index(key).sort_index()
+    assert len(full) == 2 and light.index.equals(full.index)
+    assert light["note"].tolist() == full["note"].tolist()
+    assert light["status"].tolist() == full["status"].tolist()
     # the N total (partial: no NO2 at the site) with its own reasons, after the S
     assert text.index("S total (complete)") < text.index("N total (partial): ")
     assert "NO2: not measured at the site" in text
@@ -141,6 +152,17 @@ def test_critical_loads_gap_line_of_a_filled_total(filled_year):
             "flux") in text
     assert "N total (filled): HNO3 pNO3 pNH4 NH3 NO2: deposition velocity" in text
     assert text.count("wind speed without a value in 1344 h") == 2
+    # the site explorer's light rows give the same notes over both years and every
+    # receptor of the run
+    from workbench.tables import budget_table
+    from workbench.tables_budget import total_note_rows
+    key = ["site", "receptor", "period", "element"]
+    full = budget_table(app.result.years)
+    full = full[(full["pathway"] == "total") & (full["species"] == "all")]
+    full = full.set_index(key).sort_index()
+    light = total_note_rows(app.result.years).set_index(key).sort_index()
+    assert len(full) >= 4 and light.index.equals(full.index)
+    assert light[["note", "status"]].equals(full[["note", "status"]])
     # the other year: its own notes, no word of 2016's gap
     app.year_w.value = "2017"
     assert "1344 h" not in app.text_w.value and "(filled)" not in app.text_w.value

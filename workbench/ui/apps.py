@@ -375,8 +375,8 @@ class SiteExplorer(SavedText, widgets.VBox):
         one (:func:`~workbench.ui.summaries_budget.gap_note`), under the change line:
         its totals read ``complete`` or ``filled`` (no word in the line) while resting
         on met gaps or a species blank for weeks.  Empty where no total has a note."""
-        from workbench.tables import budget_table
-        rows = budget_table(self.result.years)
+        from workbench.tables_budget import total_note_rows  # no whole table a change
+        rows = total_note_rows(self.result.years)
         lines = [gap_note(rows, self.site, self.receptor_w.value, y)
                  for y in dict.fromkeys(rows["period"].astype(str))]
         return "".join(f"<div>{html.escape(x)}</div>" for x in lines if x)
