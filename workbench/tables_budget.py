@@ -184,42 +184,52 @@ def component_rows(ds: xr.Dataset) -> pd.DataFrame:
 
 def total_note_rows(ds: xr.Dataset) -> pd.DataFrame:
     """budget.csv's total rows (pathway ``total``, species ``all``) of `ds` with their
-    ``note``, ``status`` and the keys (site, receptor, period, element): the same notes
-    as :func:`budget_table` gives them (:func:`_sum_notes` over the component notes, a
-    total's own note first), without the deposition, its units, fractions and the other
-    sum rows.  What the site explorer's gap line reads on every change
-    (:meth:`workbench.ui.apps.SiteExplorer._gaps_html`), where a change builds no
-    whole table (tests/ui/test_derived_split.py)."""
+    ``note`` and ``status`` and the keys (site, receptor, period, element): the notes
+    :func:`budget_table` gives them (:func:`_sum_notes`: each part of the component
+    notes of the element once, after the species carrying it, in the order the parts
+    first come; a total's own note first), without the deposition, its units,
+    fractions and the other rows.  What the site explorer's gap line reads on every
+    change (:meth:`workbench.ui.apps.SiteExplorer._gaps_html`; a change builds no
+    whole table, tests/ui/test_derived_split.py): a budget of one site and receptor,
+    whose few component notes are gathered one by one (no pandas groupby: its fixed
+    cost was most of the line's), never over hours."""
     v = ds.variables
-
-    def flat(var, dim):
-        return v[var].transpose("site", "receptor", "period", dim).values.reshape(-1)
-
-    def frame(dim, element, pathway, species, note, status):
-        shape = v[status].transpose("site", "receptor", "period", dim).shape
-        idx = np.indices(shape).reshape(4, -1)
-        active = v["active"].transpose("site", "receptor").values[idx[0], idx[1]]
-        f = pd.DataFrame({
-            "site": _labels(v["site"].values, idx[0]),
-            "receptor": _labels(v["receptor"].values, idx[1]),
-            "period_start": pd.to_datetime(v["period_start"].values[idx[2]]),
-            "element": _labels(np.asarray(element), idx[3]),
-            "pathway": _labels(np.asarray(pathway), idx[3]),
-            "species": _labels(np.asarray(species), idx[3]),
-            "status": _labels(flat(status, dim)),
-            "period": _labels(v["period"].values, idx[2]),
-            "note": (_labels(flat(note, dim)) if note in v and dim in v[note].dims
-                     else np.full(idx.shape[1], "", dtype=object))})
-        return f[active]
+    dims4 = ("site", "receptor", "period")
     names = [str(t) for t in v["total"].values]
-    comps = frame("component", v["element"].values, v["pathway"].values,
-                  v["species"].values, "note", "status")
-    tots = frame("total", [t.split("_")[0] for t in names],
-                 [t.split("_")[1] for t in names], ["all"] * len(names), "total_note",
-                 "total_status")
-    rows = _sum_notes(pd.concat([comps, tots], ignore_index=True))
-    rows = rows[(rows["pathway"] == "total") & (rows["species"] == "all")]
-    return rows.drop(columns="period_start").reset_index(drop=True)
+    tot_el = [t.split("_")[0] for t in names]
+    status = v["total_status"].transpose(*dims4, "total").values
+    own = (v["total_note"].transpose(*dims4, "total").values if "total_note" in v
+           else np.full(status.shape, "", dtype=object))
+    note = (v["note"].transpose(*dims4, "component").values if "note" in v
+            else np.full(v["status"].transpose(*dims4, "component").shape, "", object))
+    element = [str(e) for e in v["element"].values]
+    species = [str(x) for x in v["species"].values]
+    active = v["active"].transpose("site", "receptor").values
+    sites, recs = v["site"].values, v["receptor"].values
+    periods = v["period"].values
+    rows = []
+    for i, j in zip(*np.nonzero(active)):              # the pairs run (one in the app)
+        for p in range(len(periods)):
+            cell = note[i, j, p]
+            gathered = {}                               # element -> part -> species
+            for k in np.flatnonzero([isinstance(x, str) and x != "" for x in cell]):
+                for part in split_notes(cell[k]):
+                    if part.strip():
+                        sp = gathered.setdefault(element[k], {}).setdefault(part, [])
+                        if species[k] not in sp:
+                            sp.append(species[k])
+            for t, el in enumerate(tot_el):
+                if not names[t].endswith("_total"):
+                    continue
+                got = "; ".join(f"{' '.join(sp)}: {part}"
+                                for part, sp in gathered.get(el, {}).items())
+                mine = own[i, j, p, t]
+                mine = mine if isinstance(mine, str) else ""
+                rows.append((str(sites[i]), str(recs[j]), str(periods[p]), el, "total",
+                             "all", str(status[i, j, p, t]),
+                             str(join_notes(mine, got).item())))
+    return pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "pathway",
+                                       "species", "status", "note"])
 
 
 #: The data variables of a budget Dataset that :func:`budget_table` reads with `lean`
