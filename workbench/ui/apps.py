@@ -28,6 +28,7 @@ from .palette import TEMPLATE
 from .summaries import (UNITS, change_line, component_rates, excluded_samples,
                         mean_totals, nh3_line, no_effect_text)
 from .summaries_budget import gap_note
+from ..tables_budget import total_note_rows      # the total rows' notes, no whole table
 
 #: Tabs of the site explorer below the budget: name -> what the figure needs.
 TABS = ("monthly fluxes", "deposition velocity", "resistances", "ion balance",
@@ -229,8 +230,8 @@ class SiteExplorer(SavedText, widgets.VBox):
                                 self.reset_w, self.message_w])
         left = widgets.VBox([widgets.HTML("<b>Assumptions</b>"), acc, buttons],
                             layout=cols["assumptions"])
-        right = widgets.VBox([self.change_w, self.gaps_w, self.nh3_w, self.bracket_w, page(self.figs["budget"]),
-                              self.split_w, self.gas_w,
+        right = widgets.VBox([self.change_w, self.gaps_w, self.nh3_w, self.bracket_w,
+                              page(self.figs["budget"]), self.split_w, self.gas_w,
                               self.tabs],
                              layout=cols["figures"])
         head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w],
@@ -375,8 +376,8 @@ class SiteExplorer(SavedText, widgets.VBox):
         one (:func:`~workbench.ui.summaries_budget.gap_note`), under the change line:
         its totals read ``complete`` or ``filled`` (no word in the line) while resting
         on met gaps or a species blank for weeks.  Empty where no total has a note."""
-        from workbench.tables_budget import total_note_rows  # no whole table a change
         rows = total_note_rows(self.result.years)
+        rows = rows[rows["note"] != ""]            # most totals have none: no filtering
         lines = [gap_note(rows, self.site, self.receptor_w.value, y)
                  for y in dict.fromkeys(rows["period"].astype(str))]
         return "".join(f"<div>{html.escape(x)}</div>" for x in lines if x)
