@@ -139,11 +139,16 @@ def filled_year(tmp_path_factory):
     return make_filled_year(tmp_path_factory.mktemp("filled") / "in")
 
 
-def test_critical_loads_gap_line_of_a_filled_total(filled_year):
+@pytest.fixture(scope="module")
+def filled_loads(filled_year):
+    return _loads_explorer(filled_year, "v01")
+
+
+def test_critical_loads_gap_line_of_a_filled_total(filled_loads):
     """The gap line of a ``filled`` yearly total (untested before): its status and the
     budget's words, the share of Vd not modelled and the met gap behind it; no "Read
     with care" line (a filled total passes)."""
-    app = _loads_explorer(filled_year, "v01")
+    app = filled_loads
     app.year_w.value = "2016"
     text = app.text_w.value
     assert app.status_note == ""
@@ -152,17 +157,6 @@ def test_critical_loads_gap_line_of_a_filled_total(filled_year):
             "flux") in text
     assert "N total (filled): HNO3 pNO3 pNH4 NH3 NO2: deposition velocity" in text
     assert text.count("wind speed without a value in 1344 h") == 2
-    # the site explorer's light rows give the same notes over both years and every
-    # receptor of the run
-    from workbench.tables import budget_table
-    from workbench.tables_budget import total_note_rows
-    key = ["site", "receptor", "period", "element"]
-    full = budget_table(app.result.years)
-    full = full[(full["pathway"] == "total") & (full["species"] == "all")]
-    full = full.set_index(key).sort_index()
-    light = total_note_rows(app.result.years).set_index(key).sort_index()
-    assert len(full) >= 4 and light.index.equals(full.index)
-    assert light[["note", "status"]].equals(full[["note", "status"]])
     # the other year: its own notes, no word of 2016's gap
     app.year_w.value = "2017"
     assert "1344 h" not in app.text_w.value and "(filled)" not in app.text_w.value
@@ -227,3 +221,20 @@ def test_network_span_exceedance_names_its_years(year_removed_net):
     assert note.endswith("), not the mean of the years' exceedances")
     assert "years used (S: 2016 2017 2019; 2018 left out" in html.unescape(
         year_removed_net.analysis_w.value)
+
+
+def test_total_note_rows_are_budget_csvs(filled_loads):
+    """The rows the site explorer's gap line reads (the total rows' notes, without the
+    whole table): budget.csv's notes and statuses over both years and every receptor
+    of the run."""
+    from workbench.tables import budget_table
+    from workbench.tables_budget import total_note_rows
+    years = filled_loads.result.years
+    key = ["site", "receptor", "period", "element"]
+    full = budget_table(years)
+    full = full[(full["pathway"] == "total") & (full["species"] == "all")]
+    full = full.set_index(key).sort_index()
+    light = total_note_rows(years).set_index(key).sort_index()
+    assert len(full) >= 4 and light.index.equals(full.index)
+    assert light[["note", "status"]].equals(full[["note", "status"]])
+    assert (full["note"] != "").sum() >= 4
