@@ -21,6 +21,11 @@ from workbench.cli import run_scenario
 from tiny_inputs import make_analyst_network
 
 WIND_GAP = ("2016-03-01T01:00", "2016-04-12T00:00")      # inclusive labels, 1,008 rows
+#: Eight weeks without wind speed (56 d x 24 h = 1,344 rows) at v01 of a two-year record:
+#: the diurnal fill draws on the other year's spring, so the Vd of 15.6 % of 2016's hours
+#: behind the flux is filled and the year's dry rows, and its S and N totals, read
+#: ``filled``.
+FILL_GAP = ("2016-03-01T01:00", "2016-04-26T00:00")
 
 
 def _blank_wind(path, site, lo, hi):
@@ -53,6 +58,14 @@ def _blank_nh3(path, site, month):
             n += 1
     path.write_text("".join(lines), encoding="utf-8")
     return n
+
+
+def make_filled_year(folder):
+    """The invented network (1 site, 2016-2017) with :data:`FILL_GAP` planted at v01:
+    a yearly S and N total of 2016 that is ``filled``; returns the scenario path."""
+    scen = make_analyst_network(folder, n_sites=1, years=2, imperfections={})
+    assert _blank_wind(scen.parent / "met.csv.gz", "v01", *FILL_GAP) == 1344
+    return scen
 
 
 @pytest.fixture(scope="module")
@@ -245,3 +258,91 @@ def test_gap_hours_per_period_by_hand():
     w = met_gap_words(c, np.array([24, 24, 24]), ("wind_speed", "temperature"))
     assert w[0, 1] == ("met gaps in the period (of its 24 h): no met row in 4 h; wind "
                        "speed without a value in 6 h")
+
+
+def test_both_rows_of_a_split_pair_name_the_blank_stretch(scenario, tmp_path_factory):
+    """``pair_split = "all_particle"``: the pNH4 row holds NH3 + pNH4 at the particle Vd,
+    its air coverage the weaker member's, so the month of NH3 blank in v01's filter
+    pack drives its number; its note said "5.9 weeks without a usable air sample" with
+    no sampler nor dates (they were on the NH3 row only, which the split sets to 0).
+    Now both rows of the pair name the stretch; the site without it names none."""
+    gap = ("NH3 blank in the samples of v01-F1 from 2016-06-02T14:00 to "
+           "2016-07-07T14:00 UTC")
+    split = scenario.parent / "scenario_all_particle.toml"
+    split.write_text(scenario.read_text(encoding="utf-8").replace(
+        "[budget]\n", '[budget]\npair_split = "all_particle"\n'), encoding="utf-8")
+    assert 'pair_split = "all_particle"' in split.read_text(encoding="utf-8")
+    _, result, _ = run_scenario(split, tmp_path_factory.mktemp("split") / "out",
+                                quiet=True, resolution="year")
+    t = result.table
+    dry = t[(t["pathway"] == "dry") & (t["period"] == "2016")].groupby(
+        ["site", "species"]).first()
+    into, zero = dry.loc[("v01", "pNH4")], dry.loc[("v01", "NH3")]
+    assert into["status"] != "missing" and zero["flux_kg_ha_yr"] == 0.0
+    assert into["air_coverage"] == pytest.approx(0.886, abs=1e-3)    # NH3's, the weaker
+    assert "5.9 weeks without a usable air sample" in into["note"]
+    assert gap in into["note"] and gap in zero["note"]
+    assert "blank in" not in str(dry.loc[("v02", "pNH4"), "note"])
+    assert "blank in" not in str(dry.loc[("v02", "NH3"), "note"])
+
+
+def test_console_names_the_filled_years(tmp_path_factory):
+    """``workbench run`` counted "3 filled" for the S and N totals of 2016 (its Vd filled
+    over eight weeks without wind speed) and named no site nor year; it now names them,
+    within 79 columns (tests/test_console_width.py)."""
+    import contextlib
+    import io
+    from workbench.cli import main
+    from test_console_width import _too_wide
+    tmp = tmp_path_factory.mktemp("filledrun")
+    scen = make_filled_year(tmp / "in")
+    out = io.StringIO()
+    with contextlib.redirect_stdout(out):
+        assert main(["run", str(scen), "--out", str(tmp / "out"), "--quiet"]) == 0
+    text = out.getvalue()
+    said = " ".join(text.split())
+    assert ("S: 3 complete, 3 filled (v01 2016 in 3 receptors); N: 3 complete, 3 filled "
+            "(v01 2016 in 3 receptors)") in said, text
+    assert _too_wide(text) == []
+
+
+def test_a_component_failing_air_coverage_and_flux_hours_names_both(tmp_path_factory):
+    """v01 of a one-year record without its air samples of January to March (air
+    coverage 73.3 %, minimum 75 %) and without wind speed for 40 days of summer (no
+    other summer to fill the Vd from: a flux in 67.6 % of the year).  Before, the dry
+    rows' completeness_failure named the air coverage alone, and so did the totals,
+    the console and the span row; the lower share of hours with a flux was in the note
+    in other words only ("flux known for part of the sampled hours only")."""
+    from workbench.cli_status import failing_lines
+    tmp = tmp_path_factory.mktemp("bothfail")
+    scen = make_analyst_network(tmp / "in", n_sites=1, years=1, imperfections={})
+    air = scen.parent / "air.csv"
+    lines = air.read_text(encoding="utf-8").splitlines(keepends=True)
+    kept = [ln for ln in lines if ln.startswith("#") or not (
+        ln.startswith("v01,") and ln.split(",")[1][:7] in ("2016-01", "2016-02", "2016-03"))]
+    assert len(lines) - len(kept) == 13
+    air.write_text("".join(kept), encoding="utf-8")
+    assert _blank_wind(scen.parent / "met.csv.gz", "v01", "2016-07-01T01:00",
+                       "2016-08-10T00:00") == 960
+    _, result, _ = run_scenario(scen, tmp / "out", quiet=True, resolution="year")
+    t = result.table
+    both = ("air coverage below minimum (73.3 % of the period; minimum 75 %), hours with "
+            "a known flux below minimum (67.6 % of the period; minimum 75 %)")
+    so2 = t[(t["species"] == "SO2") & (t["period"] == "2016")].iloc[0]
+    assert so2["air_coverage"] == pytest.approx(0.7334, abs=1e-4)
+    assert so2["flux_coverage"] == pytest.approx(0.6760, abs=1e-4)
+    assert not so2["passes"] and so2["completeness_failure"] == both
+    total = t[(t["pathway"] == "total") & (t["element"] == "S") & (t["period"] == "2016")]
+    assert (total["completeness_failure"] == "SO2 pSO4: " + both).all()
+    said = failing_lines(t)
+    assert "  v01 2016: S N: " + both in said, said
+    # a flux share equal to the air coverage (no sampled hour without a flux) is the
+    # same share: said once
+    from workbench.budget_options import BudgetOptions
+    from workbench.budgetstatus_dry import dry_failure_words
+    once = dry_failure_words(np.array([0.7, 0.7]), np.array([0.7, 0.5]),
+                             np.array([True, False]), BudgetOptions())
+    assert once.tolist() == [
+        "air coverage below minimum (70.0 % of the period; minimum 75 %)",
+        "air coverage below minimum (70.0 % of the period; minimum 75 %), hours with a "
+        "known flux below minimum (50.0 % of the period; minimum 75 %)"]

@@ -62,8 +62,15 @@ def _masked_or(reasons, masked_note, empty_note) -> np.ndarray:
 
 
 def dry_failure_words(coverage, flux_cov, season_ok, options):
-    """The first completeness criterion a dry component fails, in words with its share
-    and the minimum ('' where none fails; :func:`dry_status` decides where it fails).
+    """The completeness criteria a dry component fails, in words with its share and
+    the minimum ('' where none fails; :func:`dry_status` decides where it fails): the
+    first (its air coverage, else a season without concentrations, else its hours with
+    a known flux) and, where the first is not the flux hours, those hours too when they
+    fall short on a share of their own, below the air coverage (sampled hours without
+    a Vd or an air density): ``air coverage below minimum (70.0 % of the period;
+    minimum 75 %), hours with a known flux below minimum (40.0 % of the period;
+    minimum 75 %)``.  Before, such a component named its air coverage alone; a flux
+    share equal to the air coverage is the same share and is not said twice.
 
     Parameters
     ----------
@@ -81,6 +88,9 @@ def dry_failure_words(coverage, flux_cov, season_ok, options):
     >>> dry_failure_words(np.array([0.5, 1.0]), np.array([0.5, 1.0]), np.array([True, True]),
     ...                   BudgetOptions()).tolist()
     ['air coverage below minimum (50.0 % of the period; minimum 75 %)', '']
+    >>> dry_failure_words(np.array([0.7]), np.array([0.4]), np.array([True]),
+    ...                   BudgetOptions()).tolist()
+    ['air coverage below minimum (70.0 % of the period; minimum 75 %), hours with a known flux below minimum (40.0 % of the period; minimum 75 %)']
     """
     need = options.min_air_coverage
     cov, fc = np.asarray(coverage, float), np.asarray(flux_cov, float)
@@ -91,9 +101,15 @@ def dry_failure_words(coverage, flux_cov, season_ok, options):
                            f" % of the period; minimum {100.0 * need:g} %)").astype(object)
     out = np.full(np.broadcast(cov, fc, season_ok).shape, "", dtype=object)
     low_flux = falls_short(fc, need)
-    out = np.where(low_flux, words("hours with a known flux below minimum", fc), out)
-    out = np.where(~np.asarray(season_ok, bool), "a season without concentrations", out)
-    out = np.where(falls_short(cov, need), words("air coverage below minimum", cov), out)
+    flux_words = words("hours with a known flux below minimum", fc)
+    out = np.where(low_flux, flux_words, out)
+    first = np.where(falls_short(cov, need), words("air coverage below minimum", cov),
+                     np.where(~np.asarray(season_ok, bool), "a season without concentrations",
+                              ""))
+    # the flux hours beside the first criterion: a share of their own (lower than the
+    # air coverage by more than rounding), else the same share said twice
+    own = low_flux & (cov - fc > PART_FLUX_TOL)
+    out = np.where(first != "", np.where(own, first + ", " + flux_words, first), out)
     return out.astype(object)
 
 

@@ -146,10 +146,39 @@ def _wrap(text: str, width: int, first: str, rest: str, numbers=False,
     return [x.replace("\0", " ") for x in lines] if held else lines
 
 
+#: At most this many filled site-periods named in :func:`status_lines`; the rest are
+#: counted (summary.csv has each).
+FILLED_SHOWN = 8
+
+
+def filled_names(rows, shown=None) -> str:
+    """The site-periods of `rows` (total rows of one element) whose status is
+    ``filled``, named (``v01 2016 in 3 receptors, v02 2017``; the period alone without
+    a ``site`` column), at most `shown` (default :data:`FILLED_SHOWN`) and "N more"; a
+    site-period counts once, with the number of its receptors filled where more than
+    one.  The console counted "3 filled" and named none.
+
+    >>> import pandas as pd
+    >>> t = pd.DataFrame({"site": ["a", "a", "b"], "period": ["2016", "2016", "2017"],
+    ...                   "status": ["filled", "filled", "filled"]})
+    >>> filled_names(t), filled_names(t, shown=1)
+    ('a 2016 in 2 receptors, b 2017', 'a 2016 in 2 receptors, 1 more')
+    """
+    shown = FILLED_SHOWN if shown is None else shown
+    f = rows[rows["status"].astype(str) == "filled"]
+    names = (f["site"].astype(str) + " " + f["period"].astype(str) if "site" in f
+             else f["period"].astype(str))
+    n = names.value_counts(sort=False)
+    words = [f"{k} in {int(v)} receptors" if v > 1 else str(k) for k, v in n.items()]
+    more = len(words) - shown
+    return ", ".join(words[:shown] + ([f"{more} more"] if more > 0 else []))
+
+
 def status_lines(table, inputs) -> list[str]:
     """What a run's budgets hold, for the console: per element the status counts of the
     total budget of each site, receptor and period (the flagged ones that fail
-    completeness counted beside them: "11 flagged (2 failing completeness)"); with the
+    completeness counted beside them: "11 flagged (2 failing completeness)"; the filled
+    ones named: "1 filled (v01 2016)", :func:`filled_names`); with the
     coverage warnings when every one is missing
     (:func:`workbench.preflight.coverage_notes`)."""
     from .preflight import coverage_notes
@@ -171,7 +200,8 @@ def status_lines(table, inputs) -> list[str]:
                         & (g["status"].astype(str) != "missing")).sum())
         parts.append(f"{el}: " + ", ".join(
             f"{int(counts[k])} {k}" + (f" ({fail} failing completeness)"
-                                       if k == "flagged" and fail else "") for k in keys))
+                                       if k == "flagged" and fail else "")
+            + (f" ({filled_names(g)})" if k == "filled" else "") for k in keys))
     lines = ["budgets per site, receptor and period (total, summary.csv): " + "; ".join(parts)]
     if (t["status"].astype(str) == "missing").all():
         start = t["period_start"].min() if "period_start" in t else None

@@ -25,7 +25,7 @@ from .dryfilled import (covered_filled_share, row_filled_deposition_share,  # no
                         row_filled_hours)
 from .dryflux import no_hour_inside, period_axes, period_mean, share_to_periods
 from .drymetgaps import met_gap_hours, met_gap_words
-from .dryspeciesgaps import period_species_gaps
+from .dryspeciesgaps import period_species_gaps, share_pair_gaps
 from .io.metgaps import VD_INPUTS
 from .drynss import (CENSORED_WORDS, _nss_particles, _pso4_cell_notes,  # noqa: F401
                      _rows_by_cell, censored_na_notes, censored_nss_notes,
@@ -167,10 +167,12 @@ def dry_components(rows: dict, periods: pd.DataFrame, share=None):
              rows.get("masked_runs"), periods, n_s, n_k).astype(str),
              {"long_name": "the reason of the most masked sampling hours of the period, "
               "where the air reader masked values of the species in it ('' elsewhere)"}),
-         "species_gap_note": (("site", "period", "species"), period_species_gaps(
-             rows.get("species_gap_runs"), periods, sites, species_list).astype(str),
+         "species_gap_note": (("site", "period", "species"), share_pair_gaps(
+             period_species_gaps(rows.get("species_gap_runs"), periods, sites,
+                                 species_list), split, species_list).astype(str),
              {"long_name": "the first stretch of the period in which a sampler of the "
-              "site ran without the species' values: sampler and dates ('' for none)"}),
+              "site ran without the species' values: sampler and dates ('' for none); both "
+              "members' on both rows of a pair that pair_split moves"}),
          "met_without": (("site",), np.asarray(rows.get(
              "met_without", np.full(len(sites), ""))).astype(str),
                          {"long_name": "the variables a deposition velocity reads that the "

@@ -75,3 +75,38 @@ def period_species_gaps(runs, periods: pd.DataFrame, sites, species) -> np.ndarr
     out[f["site"].to_numpy(), f["period"].to_numpy(), f["species"].to_numpy()] = \
         f["text"].to_numpy()
     return out
+
+
+def share_pair_gaps(notes: np.ndarray, split: dict, species) -> np.ndarray:
+    """`notes` (site, period, species) of :func:`period_species_gaps` with the stretches
+    of both members of each pair that ``pair_split`` moves into one species on both
+    members' rows: the species moved into holds both members (its air coverage the
+    weaker member's), so a blank stretch of either drives its number, and the member
+    set to 0 is 0 because of the same split.  Before, each row named its own species'
+    stretch only: the NH3 row of ``all_gas`` read "5.9 weeks without a usable air
+    sample" with no sampler nor dates where pNH4 was the blank one.
+
+    Parameters
+    ----------
+    split : dict
+        pair -> (into, other, how): ``dry_rows(...)["split"]``
+        (:func:`workbench.drypairs.split_pairs`).
+    species : sequence of str
+        The species axis of `notes`.
+
+    >>> n = np.array([[["", "NH3 blank in the samples of F1 from a to b UTC"]]], object)
+    >>> share_pair_gaps(n, {"ammonium": ("pNH4", "NH3", "all_particle")},
+    ...                 ["pNH4", "NH3"])[0, 0].tolist()
+    ['NH3 blank in the samples of F1 from a to b UTC', 'NH3 blank in the samples of F1 from a to b UTC']
+    """
+    from .budgetstatus_notes import join_notes
+    out = np.array(notes, dtype=object)
+    species = [str(s) for s in species]
+    for into, other, _ in (split or {}).values():
+        if into not in species or other not in species:
+            continue
+        a, b = out[..., species.index(into)], out[..., species.index(other)]
+        both = join_notes(a, np.where(b == a, "", b))      # each stretch once
+        out[..., species.index(into)] = both
+        out[..., species.index(other)] = both
+    return out

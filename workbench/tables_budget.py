@@ -182,6 +182,56 @@ def component_rows(ds: xr.Dataset) -> pd.DataFrame:
     return _sorted(frame[active])
 
 
+def total_note_rows(ds: xr.Dataset) -> pd.DataFrame:
+    """budget.csv's total rows (pathway ``total``, species ``all``) of `ds` with their
+    ``note`` and ``status`` and the keys (site, receptor, period, element): the notes
+    :func:`budget_table` gives them (:func:`_sum_notes`: each part of the component
+    notes of the element once, after the species carrying it, in the order the parts
+    first come; a total's own note first), without the deposition, its units,
+    fractions and the other rows.  What the site explorer's gap line reads on every
+    change (:meth:`workbench.ui.apps.SiteExplorer._gaps_html`; a change builds no
+    whole table, tests/ui/test_derived_split.py): a budget of one site and receptor,
+    whose few component notes are gathered one by one (no pandas groupby: its fixed
+    cost was most of the line's), never over hours."""
+    v = ds.variables
+    dims4 = ("site", "receptor", "period")
+    names = [str(t) for t in v["total"].values]
+    tot_el = [t.split("_")[0] for t in names]
+    status = v["total_status"].transpose(*dims4, "total").values
+    own = (v["total_note"].transpose(*dims4, "total").values if "total_note" in v
+           else np.full(status.shape, "", dtype=object))
+    note = (v["note"].transpose(*dims4, "component").values if "note" in v
+            else np.full(v["status"].transpose(*dims4, "component").shape, "", object))
+    element = [str(e) for e in v["element"].values]
+    species = [str(x) for x in v["species"].values]
+    active = v["active"].transpose("site", "receptor").values
+    sites, recs = v["site"].values, v["receptor"].values
+    periods = v["period"].values
+    rows = []
+    for i, j in zip(*np.nonzero(active)):              # the pairs run (one in the app)
+        for p in range(len(periods)):
+            cell = note[i, j, p]
+            gathered = {}                               # element -> part -> species
+            for k in np.flatnonzero([isinstance(x, str) and x != "" for x in cell]):
+                for part in split_notes(cell[k]):
+                    if part.strip():
+                        sp = gathered.setdefault(element[k], {}).setdefault(part, [])
+                        if species[k] not in sp:
+                            sp.append(species[k])
+            for t, el in enumerate(tot_el):
+                if not names[t].endswith("_total"):
+                    continue
+                got = "; ".join(f"{' '.join(sp)}: {part}"
+                                for part, sp in gathered.get(el, {}).items())
+                mine = own[i, j, p, t]
+                mine = mine if isinstance(mine, str) else ""
+                rows.append((str(sites[i]), str(recs[j]), str(periods[p]), el, "total",
+                             "all", str(status[i, j, p, t]),
+                             str(join_notes(mine, got).item())))
+    return pd.DataFrame(rows, columns=["site", "receptor", "period", "element", "pathway",
+                                       "species", "status", "note"])
+
+
 #: The data variables of a budget Dataset that :func:`budget_table` reads with `lean`
 #: (besides the coordinates of their axes: site, receptor, period, period_start,
 #: annual_factor, element, pathway, species, total).

@@ -15,7 +15,8 @@ from pathlib import Path
 import pytest
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
-from test_met_gap_periods import WIND_GAP, _blank_nh3, _blank_wind  # noqa: E402
+from test_met_gap_periods import (WIND_GAP, _blank_nh3, _blank_wind,  # noqa: E402
+                                  make_filled_year)
 from tiny_inputs import make_analyst_network  # noqa: E402
 
 
@@ -76,18 +77,89 @@ def test_critical_loads_view_names_the_gaps_behind_its_totals(gap_network):
     assert "S total (" not in text
 
 
-def test_site_explorer_hover_names_the_met_gap(gap_network):
-    """Holds what was right: the site explorer's budget figure gives each dry
-    component's note in its hover (v02's S total reads complete in the change line)."""
+@pytest.fixture(scope="module")
+def explorer_v02(gap_network):
     from workbench.ui.apps import SiteExplorer
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", RuntimeWarning)
-        app = SiteExplorer.from_scenario(gap_network, site="v02")
+        return SiteExplorer.from_scenario(gap_network, site="v02")
+
+
+def test_site_explorer_hover_names_the_met_gap(explorer_v02):
+    """Holds what was right: the site explorer's budget figure gives each dry
+    component's note in its hover (v02's S total reads complete in the change line)."""
+    app = explorer_v02
     hover = {tr.get("name"): " ".join(map(str, tr.get("customdata") or ()))
              for tr in app._figure("budget")["data"]}
     so2 = hover["dry SO2"]
     assert "wind speed without a value in 1008 h" in so2
     assert "90.6 % of the period with a flux" in so2.replace("<br>", " ")
+
+
+def test_site_explorer_says_the_gap_under_its_summary_line(explorer_v02):
+    """The change line reads "S total ... kg/ha/yr" with no word (a complete total)
+    while the total rests on 90.6 % of the year's hours with a flux, six weeks without
+    wind speed: said only in the figure's hover before.  The line under it gives
+    budget.csv's note of the total, with its status."""
+    import html
+    app = explorer_v02
+    assert app.change_w.value.startswith("S total ") and "complete" not in app.change_w.value
+    text = html.unescape(app.gaps_w.value)
+    assert "Gaps behind the totals of 2016 (budget.csv notes): S total (complete): " in text
+    assert "wind speed without a value in 1008 h" in text
+    assert "flux known for part of the sampled hours only (90.6 %" in text
+    # placed right under the change line, above the figure
+    def boxes(w):
+        yield w
+        for c in getattr(w, "children", ()):
+            yield from boxes(c)
+    kids = next(list(b.children) for b in boxes(app)
+                if app.change_w in getattr(b, "children", ()))
+    assert kids.index(app.gaps_w) == kids.index(app.change_w) + 1
+    # the notes those of budget.csv's total rows (read without building its table)
+    from workbench.tables import budget_table
+    from workbench.tables_budget import total_note_rows
+    full = budget_table(app.result.years)
+    full = full[(full["pathway"] == "total") & (full["species"] == "all")]
+    key = ["site", "receptor", "period", "element"]
+    light = total_note_rows(app.result.years).set_index(key).sort_index()
+    full = full.set_index(key).sort_index()
+    assert len(full) == 2 and light.index.equals(full.index)
+    assert light["note"].tolist() == full["note"].tolist()
+    assert light["status"].tolist() == full["status"].tolist()
+    # the N total (partial: no NO2 at the site) with its own reasons, after the S
+    assert text.index("S total (complete)") < text.index("N total (partial): ")
+    assert "NO2: not measured at the site" in text
+
+
+@pytest.fixture(scope="module")
+def filled_year(tmp_path_factory):
+    """One invented site over 2016-2017, eight weeks without wind speed in 2016: its S
+    and N totals of 2016 read ``filled`` (tests/test_met_gap_periods.py)."""
+    return make_filled_year(tmp_path_factory.mktemp("filled") / "in")
+
+
+@pytest.fixture(scope="module")
+def filled_loads(filled_year):
+    return _loads_explorer(filled_year, "v01")
+
+
+def test_critical_loads_gap_line_of_a_filled_total(filled_loads):
+    """The gap line of a ``filled`` yearly total (untested before): its status and the
+    budget's words, the share of Vd not modelled and the met gap behind it; no "Read
+    with care" line (a filled total passes)."""
+    app = filled_loads
+    app.year_w.value = "2016"
+    text = app.text_w.value
+    assert app.status_note == ""
+    assert ("Gaps behind the totals of 2016 (budget.csv notes): S total (filled): SO2 "
+            "pSO4: deposition velocity not modelled in 15.6 % of the hours behind the "
+            "flux") in text
+    assert "N total (filled): HNO3 pNO3 pNH4 NH3 NO2: deposition velocity" in text
+    assert text.count("wind speed without a value in 1344 h") == 2
+    # the other year: its own notes, no word of 2016's gap
+    app.year_w.value = "2017"
+    assert "1344 h" not in app.text_w.value and "(filled)" not in app.text_w.value
 
 
 def _drop_year(path, site, year):
@@ -113,13 +185,18 @@ def year_removed(tmp_path_factory):
     return scen
 
 
-def test_network_trend_names_the_year_it_leaves_out(year_removed):
-    """Before, the trend column said "3 complete years" and nothing of 2018, which
-    the trend leaves out (its totals fail completeness); trends.csv's note names it."""
+@pytest.fixture(scope="module")
+def year_removed_net(year_removed):
     from workbench.ui.apps_more import NetworkOverview
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", RuntimeWarning)
-        net = NetworkOverview.from_scenario(year_removed)
+        return NetworkOverview.from_scenario(year_removed)
+
+
+def test_network_trend_names_the_year_it_leaves_out(year_removed_net):
+    """Before, the trend column said "3 complete years" and nothing of 2018, which
+    the trend leaves out (its totals fail completeness); trends.csv's note names it."""
+    net = year_removed_net
     row = net.analysis.set_index("site").loc["v01"]
     for el in ("S", "N"):
         assert "3 complete years" in row[f"{el}_trend"]
@@ -129,3 +206,35 @@ def test_network_trend_names_the_year_it_leaves_out(year_removed):
     totals = net.totals().droplevel("receptor")
     assert totals.loc[("v01", "2018"), "S completeness"].startswith(
         "fails: SO4: gauge record below minimum")
+
+
+def test_network_span_exceedance_names_its_years(year_removed_net):
+    """The span exceedance's note said "exceedance of the mean deposition of the years
+    used" without naming them; it now names them and the year left out, with why
+    (budget.csv's span rows: years_used, and the note's "2018 left out: ...")."""
+    import html
+    note = year_removed_net.analysis.set_index("site").loc["v01", "exceedance_note"]
+    assert note.startswith("exceedance of the mean deposition of the years used (S: "
+                           "2016 2017 2019; 2018 left out: fails completeness (SO4: "
+                           "gauge record below minimum")
+    assert "; N: 2016 2017 2019; 2018 left out: fails completeness (NO3 NH4: " in note
+    assert note.endswith("), not the mean of the years' exceedances")
+    assert "years used (S: 2016 2017 2019; 2018 left out" in html.unescape(
+        year_removed_net.analysis_w.value)
+
+
+def test_total_note_rows_are_budget_csvs(filled_loads):
+    """The rows the site explorer's gap line reads (the total rows' notes, without the
+    whole table): budget.csv's notes and statuses over both years and every receptor
+    of the run."""
+    from workbench.tables import budget_table
+    from workbench.tables_budget import total_note_rows
+    years = filled_loads.result.years
+    key = ["site", "receptor", "period", "element"]
+    full = budget_table(years)
+    full = full[(full["pathway"] == "total") & (full["species"] == "all")]
+    full = full.set_index(key).sort_index()
+    light = total_note_rows(years).set_index(key).sort_index()
+    assert len(full) >= 4 and light.index.equals(full.index)
+    assert light[["note", "status"]].equals(full[["note", "status"]])
+    assert (full["note"] != "").sum() >= 4

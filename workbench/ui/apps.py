@@ -27,6 +27,8 @@ from .session import Session, output_dir
 from .palette import TEMPLATE
 from .summaries import (UNITS, change_line, component_rates, excluded_samples,
                         mean_totals, nh3_line, no_effect_text)
+from .summaries_budget import gap_note
+from ..tables_budget import total_note_rows      # the total rows' notes, no whole table
 
 #: Tabs of the site explorer below the budget: name -> what the figure needs.
 TABS = ("monthly fluxes", "deposition velocity", "resistances", "ion balance",
@@ -142,6 +144,10 @@ class SiteExplorer(SavedText, widgets.VBox):
                          for k, a in ASSUMPTIONS.items()}
         self.change_w = widgets.HTML("", layout=widgets.Layout(min_height="1.6em"))
         self.change_w.add_class("wb-change")
+        # why a total rests on a gap, beside the change line (a complete or filled
+        # total's note was only in the budget figure's hover)
+        self.gaps_w = widgets.HTML("")
+        self.gaps_w.add_class("wb-gaps")
         self.nh3_w = widgets.HTML("")          # the NH3 figure used: net or deposition only
         self.bracket_w = widgets.HTML("")      # dry N against its gas/particle bracket
         self.bracket_w.add_class("wb-bracket")
@@ -164,6 +170,7 @@ class SiteExplorer(SavedText, widgets.VBox):
         self.figs["budget"].add_class("wb-budget")
         self._totals = self._current_totals()
         self.change_w.value = html.escape(change_line(None, self._totals, self.unit_w.value))
+        self.gaps_w.value = self._gaps_html()
         self.nh3_w.value = self._nh3_html()
         self.bracket_w.value = self._bracket_html()
         self.split_w.value = self._split_html()
@@ -223,8 +230,8 @@ class SiteExplorer(SavedText, widgets.VBox):
                                 self.reset_w, self.message_w])
         left = widgets.VBox([widgets.HTML("<b>Assumptions</b>"), acc, buttons],
                             layout=cols["assumptions"])
-        right = widgets.VBox([self.change_w, self.nh3_w, self.bracket_w, page(self.figs["budget"]),
-                              self.split_w, self.gas_w,
+        right = widgets.VBox([self.change_w, self.gaps_w, self.nh3_w, self.bracket_w,
+                              page(self.figs["budget"]), self.split_w, self.gas_w,
                               self.tabs],
                              layout=cols["figures"])
         head = widgets.HBox([self.site_w, self.receptor_w, self.years_w, self.unit_w],
@@ -364,6 +371,17 @@ class SiteExplorer(SavedText, widgets.VBox):
                 self.monthly_w.value = self._monthly_html()
             self._drawn[name] = key
 
+    def _gaps_html(self):
+        """The notes of budget.csv's S and N total rows of each year shown that have
+        one (:func:`~workbench.ui.summaries_budget.gap_note`), under the change line:
+        its totals read ``complete`` or ``filled`` (no word in the line) while resting
+        on met gaps or a species blank for weeks.  Empty where no total has a note."""
+        rows = total_note_rows(self.result.years)
+        rows = rows[rows["note"] != ""]            # most totals have none: no filtering
+        lines = [gap_note(rows, self.site, self.receptor_w.value, y)
+                 for y in dict.fromkeys(rows["period"].astype(str))]
+        return "".join(f"<div>{html.escape(x)}</div>" for x in lines if x)
+
     def _nh3_html(self):
         text = nh3_line(self.result.years, self.site, self.receptor_w.value, self.unit_w.value)
         if (self.settings.dry.nh3_treatment == "bidirectional"
@@ -408,6 +426,7 @@ class SiteExplorer(SavedText, widgets.VBox):
         refresh(self.figs["budget"], self._figure("budget"))
         after = self._current_totals()
         self.change_w.value = html.escape(change_line(self._before, after, self.unit_w.value))
+        self.gaps_w.value = self._gaps_html()
         self._totals = after
         self.nh3_w.value = self._nh3_html()
         self.bracket_w.value = self._bracket_html()

@@ -165,6 +165,45 @@ def totals_status(table, receptor) -> str:
     return ", ".join(f"{el} {st}{lack}" for el, st, lack in words)
 
 
+def span_years(table, receptor) -> str:
+    """The years behind the span's S and N totals of `receptor`, from budget.csv's span
+    rows: ``years_used`` and, for each year of ``years_excluded``, the part of the
+    row's note that says why it is left out (:data:`workbench.tables_span.LEFT_OUT_NOTE`:
+    ``2018 left out: fails completeness (...)``).  One text where S and N use the same
+    years, else one for each (``S: 2016 2017; N: 2016``).  The span exceedance said
+    "the years used" without naming them.  ``""`` without a span total.
+
+    >>> import pandas as pd
+    >>> t = pd.DataFrame({"period": "span", "receptor": "lake", "pathway": "total",
+    ...     "species": "all", "element": ["S", "N"], "years_used": "2016 2017",
+    ...     "years_excluded": "2018",
+    ...     "note": "2018 left out: missing; 2016: SO2: met gaps (a; b)"})
+    >>> span_years(t, "lake")
+    '2016 2017; 2018 left out: missing'
+    """
+    from ..budgetstatus_notes import split_notes
+    if "years_used" not in table:
+        return ""
+    span = table[(table["period"].astype(str) == "span") & (table["receptor"] == receptor)
+                 & (table["pathway"] == "total") & (table["species"] == "all")]
+    words = {}
+    for _, r in span.iterrows():           # the two span totals of the receptor
+        used = r.get("years_used")
+        used = used if isinstance(used, str) and used else "none"
+        out = r.get("years_excluded")
+        out = str(out).split() if isinstance(out, str) else []
+        parts = split_notes(r.get("note", "") if isinstance(r.get("note"), str) else "")
+        why = [next((x for x in parts if x.startswith(f"{y} left out")),
+                    f"{y} left out") for y in out]
+        words[str(r["element"])] = "; ".join([used, *why])
+    if not words:
+        return ""
+    if len(set(words.values())) == 1:
+        return next(iter(words.values()))
+    return "; ".join(f"{el}: {w}" for el, w in sorted(
+        words.items(), key=lambda kv: ("S", "N").index(kv[0]) if kv[0] in ("S", "N") else 2))
+
+
 def network_analysis_parts(results: dict, catalogue,
                            serial_correction=None) -> "pd.DataFrame":
     """The numbers behind :func:`network_analysis_table`, in no unit of display.
@@ -187,13 +226,14 @@ def network_analysis_parts(results: dict, catalogue,
         ``ex_nutrient_n_eq_ha_yr``
         [eq ha-1 yr-1], ``exceedance_status`` of the span (exceedance.csv's status: a
         partial total counts as ``flagged`` there; "no critical loads" without them) and
-        ``exceedance_note`` (its note in exceedance.csv); ``totals_status``: the budget's
+        ``exceedance_note`` (its note in exceedance.csv, "the years used" named:
+        :func:`span_years`); ``totals_status``: the budget's
         own status of the span's S and N totals (:func:`totals_status`, ``S complete, N
         partial (no NO2)``), the table's "status of the totals".
     """
     import pandas as pd
 
-    from ..analysis.exceedance import NO_CRITICAL_LOADS, exceedance_table
+    from ..analysis.exceedance import NO_CRITICAL_LOADS, SPAN_NOTE, exceedance_table
     from ..analysis.trends import P_HELD, change_notes, trend_table
     rows = []
     for site, res in results.items():
@@ -231,9 +271,15 @@ def network_analysis_parts(results: dict, catalogue,
         ex = ex[(ex["site"] == site) & (ex["receptor"] == own) & (ex["period"] == "span")]
         if len(ex) and ex.iloc[0]["note"] != NO_CRITICAL_LOADS:
             e = ex.iloc[0]
+            # the span exceedance of "the years used": named, with those left out and
+            # why (budget.csv's span rows)
+            note, years = str(e["note"]), span_years(res.table, own)
+            if years and SPAN_NOTE in note:
+                head = SPAN_NOTE.split(", not ")[0]
+                note = note.replace(head, f"{head} ({years})", 1)
             row.update(ex_acidity_eq_ha_yr=e["ex_acidity_eq_ha_yr"],
                        ex_nutrient_n_eq_ha_yr=e["ex_nutrient_n_eq_ha_yr"],
-                       exceedance_status=e["status"], exceedance_note=e["note"])
+                       exceedance_status=e["status"], exceedance_note=note)
         else:
             row.update(ex_acidity_eq_ha_yr=np.nan, ex_nutrient_n_eq_ha_yr=np.nan,
                        exceedance_status="no critical loads",

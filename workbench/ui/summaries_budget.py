@@ -218,6 +218,39 @@ def mean_totals(ds: xr.Dataset, site, receptor, periods=None, unit="kg/ha/yr") -
     return out
 
 
+def gap_note(rows: pd.DataFrame, site, receptor, period) -> str:
+    """The gaps behind the S and N totals of `period`, in the words of budget.csv: the
+    ``note`` of each total row (pathway ``total``, species ``all``) of `rows`
+    (:func:`workbench.tables.budget_table` of the yearly budget) that has one, after
+    its element and status: ``Gaps behind the totals of 2016 (budget.csv notes): S
+    total (complete): SO2 pSO4: met gaps in the period (...): wind speed without a
+    value in 1008 h.``  Empty text where no total of the period has a note.  The
+    reasons are the budget's own, not derived again.
+
+    >>> rows = pd.DataFrame({"site": "a", "receptor": "grass", "period": "2016",
+    ...     "pathway": ["total", "total", "dry"], "species": ["all", "all", "NH3"],
+    ...     "element": ["S", "N", "N"], "status": "complete",
+    ...     "note": ["", "NH3: NH3 blank in the samples of a-F1 from x", "x"]})
+    >>> gap_note(rows, "a", "grass", 2016)
+    'Gaps behind the totals of 2016 (budget.csv notes): N total (complete): NH3: NH3 blank in the samples of a-F1 from x.'
+    """
+    if rows is None or not len(rows) or "note" not in rows:
+        return ""
+    t = rows[(rows["site"].astype(str) == str(site))
+             & (rows["receptor"].astype(str) == str(receptor))
+             & (rows["period"].astype(str) == str(period))
+             & (rows["pathway"] == "total") & (rows["species"] == "all")]
+    note = t["note"].fillna("").astype(str).str.strip()
+    t = t[note != ""].sort_values("element", key=lambda e: e.map({"S": 0, "N": 1}),
+                                  kind="stable")                  # S first, as shown
+    if not len(t):
+        return ""
+    parts = (t["element"].astype(str) + " total (" + t["status"].astype(str) + "): "
+             + t["note"].astype(str).str.strip())
+    return (f"Gaps behind the totals of {period} (budget.csv notes): "
+            + "; ".join(parts) + ".")
+
+
 def _nh3_not_measured(ds, pick) -> bool:
     """Whether the budget's note of the dry NH3 component says "not measured" in every
     period of `ds` (the site has no NH3 concentration at all, not a gap)."""
