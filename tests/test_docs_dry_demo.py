@@ -249,3 +249,44 @@ def test_receptor_surface_fix_sentence_of_section_7(demo):
     w = means(gas_scheme="wesely1989")
     got = tuple(_v(w, g, "farm", "deciduous_forest") for g in ("SO2", "NO2", "O3"))
     assert m.groups() == got, f"re-measure docs/methods_dry.md 7: {got}"
+
+
+def test_lai_of_the_deciduous_stand_of_section_9_2(study):
+    """"on the demo farm stand (2021, defaults, Zhang) SO2 0.49 and HNO3 1.83 cm/s with
+    0.5-5, 0.47 and 1.76 with a 0.1-5 cosine, 0.42 and 1.56 with a leafless November-April
+    (LAI 0.1), 5 from June to September and 2.55 in May and October": Zhang's annual Vd
+    over the farm's deciduous stand with the class range, and with the stand's monthly
+    LAI given as the catalogue's ``lai`` would (the cosine of landuse.seasonal_lai)."""
+    import numpy as np
+
+    from workbench.drydep import DryOptions, velocities
+    from workbench.landuse import DEFAULT_LAI, seasonal_lai
+    from workbench.stages import met_with_air
+    m = re.search(r"on the demo farm stand \(2021, defaults, Zhang\) SO2 ([\d.]+) and HNO3 "
+                  r"([\d.]+) cm/s with 0\.5-5, ([\d.]+) and ([\d.]+) with a 0\.1-5 cosine, "
+                  r"([\d.]+) and ([\d.]+) with a leafless November-April \(LAI 0\.1\), 5 from "
+                  r"June to September and 2\.55 in May and October", _flat(DOC.read_text()))
+    assert m, "the LAI sentence of docs/methods_dry.md 9.2"
+    assert DEFAULT_LAI["deciduous_forest"] == (0.5, 5.0)
+    opt = DryOptions(gas_scheme="zhang2003", particles=(), components=False,
+                     gases=("SO2", "HNO3"))
+    surf = study.surfaces().sel(site=["farm"])
+    met = met_with_air(study.inputs.met, study.inputs.air, study.surfaces(), opt)
+    met = met.sel(time=slice(*_vd_table_module().YEAR), site=["farm"])
+    lat = float(surf["latitude"].sel(site="farm"))
+    month = np.arange(1, 13)
+    leafless = np.select([(month >= 11) | (month <= 4), (month >= 6) & (month <= 9)],
+                         [0.1, 5.0], 2.55)
+    r = list(surf["receptor"].values).index("deciduous_forest")
+    got = []
+    for lai in (None, seasonal_lai(0.1, 5.0, month, lat), leafless):
+        s = surf
+        if lai is not None:
+            given = surf["lai"].transpose("site", "receptor", "month").values.copy()
+            assert np.isnan(given[0, r]).all()          # the demo gives the stand none
+            given[0, r] = lai
+            s = surf.assign(lai=(("site", "receptor", "month"), given))
+        ds = velocities(met, s, opt)
+        got += [_r(ds[f"vd_{g}"].sel(site="farm", receptor="deciduous_forest").mean("time")
+                   * 100.0) for g in ("SO2", "HNO3")]
+    assert m.groups() == tuple(got), f"re-measure docs/methods_dry.md 9.2: {got}"
