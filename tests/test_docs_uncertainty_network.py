@@ -6,6 +6,8 @@ engine or of the draws that moves one fails until the sentence is re-measured:
   the network's sum (benchmarks/uncertainty_network.py: 2,000 draws, seed 12345, the
   span mean of each site's own surface and their sum, eq/ha/yr, 5-95 % and width over
   median), computed with the benchmark's own functions;
+- the same section, the demo at its defaults re-measured (the same 2,000 draws): the
+  5-95 % of the S or N total of 2020 and of the span of five site / receptor pairs;
 - "A drawn gas/particle split", the 200 draws of `workbench run` (seed 12345) with and
   without ``pair_shift_nitrate = pair_shift_ammonium = [-0.3, 0.0]``: the ridge's
   conifer forest's dry N of 2016, its brackets and its 5 / 50 / 95 %, and the S ranges
@@ -28,14 +30,21 @@ from doc_sections import flat_section
 
 
 @pytest.fixture(scope="module")
-def network(demo_year_run):
-    """label -> (5 %, 50 %, 95 %) [eq/ha/yr] of the network's sum ("S", "N") and of each
-    site's own surface ("ridge S", ...), 2,000 draws, seed 12345."""
+def draws2000(demo_year_run):
+    """The Monte Carlo of the whole demo at its defaults, 2,000 draws, seed 12345."""
     from workbench.analysis.montecarlo import monte_carlo
     sc, study, res = demo_year_run
-    bench = _bench_script("uncertainty_network")
     opt = dataclasses.replace(sc.options["uncertainty"], draws=2000, seed=12345)
-    q = monte_carlo(res, study, opt)
+    return monte_carlo(res, study, opt)
+
+
+@pytest.fixture(scope="module")
+def network(demo_year_run, draws2000):
+    """label -> (5 %, 50 %, 95 %) [eq/ha/yr] of the network's sum ("S", "N") and of each
+    site's own surface ("ridge S", ...), 2,000 draws, seed 12345."""
+    _, study, _ = demo_year_run
+    bench = _bench_script("uncertainty_network")
+    q = draws2000
     sites, _, draws = bench.own_surface_span_draws(q, study.catalogue())
     out = {}
     for e in ("s", "n"):
@@ -57,6 +66,34 @@ def test_the_network_sum_re_measured(network):
         a, mid, b = network[label]
         assert (f"{a:.1f}", f"{b:.1f}", f"{(b - a) / mid:.3f}") == (lo, hi, width), \
             f"re-measure {label}: {a:.1f}-{b:.1f} ({(b - a) / mid:.3f})"
+
+
+def test_the_demo_ranges_at_its_defaults_re_measured(demo_year_run, draws2000):
+    """"Re-measured on 2026-12-05 with the current engine ...": the 5-95 % of the S or N
+    total of 2020 and of the span mean [kg/ha/yr] of five site / receptor pairs."""
+    from workbench.analysis import uncertainty as U
+    _, _, res = demo_year_run
+    t = U.add_quantiles(res.table, draws2000, res.budget["annual_factor"].values)
+    t = t[(t["pathway"] == "total") & (t["species"] == "all")].set_index(
+        ["site", "receptor", "element", "period"])
+
+    def rng(site, rec, element, period):
+        r = t.loc[(site, rec, element, period)]
+        return f"{r['flux_kg_ha_yr_p05']:.2f}-{r['flux_kg_ha_yr_p95']:.2f}"
+
+    def both(site, rec, element):
+        return rng(site, rec, element, "2020"), rng(site, rec, element, "span")
+    text = flat_section("*Measured* (the engine of that change, not re-measured since",
+                        "### Correlation structure")
+    want = ("Re-measured on 2026-12-05 with the current engine (held by "
+            "tests/test_docs_uncertainty_network.py): ridge / conifer forest S %s in 2020, "
+            "%s the span; N %s and %s; fell / grass S %s, %s; mere / wetland S %s, %s; "
+            "farm / crops N %s, %s (" % (*both("ridge", "conifer_forest", "S"),
+                                          *both("ridge", "conifer_forest", "N"),
+                                          *both("fell", "grass", "S"),
+                                          *both("mere", "wetland", "S"),
+                                          *both("farm", "crops", "N")))
+    assert want in text, f"re-measure:\n{want}"
 
 
 @pytest.fixture(scope="module")
