@@ -290,3 +290,34 @@ def test_lai_of_the_deciduous_stand_of_section_9_2(study):
         got += [_r(ds[f"vd_{g}"].sel(site="farm", receptor="deciduous_forest").mean("time")
                    * 100.0) for g in ("SO2", "HNO3")]
     assert m.groups() == tuple(got), f"re-measure docs/methods_dry.md 9.2: {got}"
+
+
+def test_lai_share_fix_sentence_of_section_7(demo, study):
+    """"the farm deciduous stand's March and November became 3 (Wesely's SO2 0.426 ->
+    0.424 cm/s), and over grass the particle scheme's collector ... (5 mm; pNO3 ridge
+    grass 0.295 -> 0.290, farm grass 0.242 -> 0.236, farm deciduous 0.297 -> 0.286
+    cm/s)": the values after the fix, now (three decimals; the values before it are
+    history, the code that gave them is gone)."""
+    from decimal import ROUND_HALF_UP, Decimal
+
+    from workbench.drydep import DryOptions, velocities
+    from workbench.stages import met_with_air
+    means, text = demo
+    m = re.search(r"\(Wesely's SO2 [\d.]+ -> ([\d.]+) cm/s\), and over grass the particle "
+                  r"scheme's collector of March and November is category 3's \(5 mm; pNO3 "
+                  r"ridge grass [\d.]+ -> ([\d.]+), farm grass [\d.]+ -> ([\d.]+), farm "
+                  r"deciduous [\d.]+ -> ([\d.]+) cm/s\)", _flat(text))
+    assert m, "the LAI-share fix's sentence of docs/methods_dry.md 7"
+
+    def r3(x) -> str:
+        return str(Decimal(repr(float(x))).quantize(Decimal("0.001"), rounding=ROUND_HALF_UP))
+    surf = study.surfaces()
+    opt = DryOptions(components=False, gases=("SO2",))
+    assert "pNO3" in opt.particles
+    met = met_with_air(study.inputs.met, study.inputs.air, surf, opt)
+    ds = velocities(met.sel(time=slice(*_vd_table_module().YEAR)), surf, opt)
+    p = ds["vd_pNO3"].mean("time") * 100.0
+    got = (r3(means(gas_scheme="wesely1989")["SO2"].sel(site="farm", receptor="deciduous_forest")),
+           r3(p.sel(site="ridge", receptor="grass")), r3(p.sel(site="farm", receptor="grass")),
+           r3(p.sel(site="farm", receptor="deciduous_forest")))
+    assert m.groups() == got, f"re-measure docs/methods_dry.md 7: {got}"
