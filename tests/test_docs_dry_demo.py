@@ -321,3 +321,90 @@ def test_lai_share_fix_sentence_of_section_7(demo, study):
            r3(p.sel(site="ridge", receptor="grass")), r3(p.sel(site="farm", receptor="grass")),
            r3(p.sel(site="farm", receptor="deciduous_forest")))
     assert m.groups() == got, f"re-measure docs/methods_dry.md 7: {got}"
+
+
+@pytest.fixture(scope="module")
+def forests(study):
+    """(scheme, transfer) -> the hourly velocities with their resistances
+    (``components=True``) of 2021 at the ridge and the farm (SO2 and HNO3)."""
+    from workbench.drydep import DryOptions, velocities
+    from workbench.stages import met_with_air
+    surf = study.surfaces().sel(site=["ridge", "farm"])
+    year = _vd_table_module().YEAR
+    out = {}
+    for scheme, transfer in (("wesely1989", "drag_law"), ("zhang2003", "drag_law"),
+                             ("zhang2003", "blending_height")):
+        opt = DryOptions(gas_scheme=scheme, particles=(), gases=("SO2", "HNO3"),
+                         ustar_transfer=transfer)
+        met = met_with_air(study.inputs.met, study.inputs.air, study.surfaces(), opt)
+        out[scheme, transfer] = velocities(met.sel(time=slice(*year), site=["ridge", "farm"]),
+                                           surf, opt)
+    return out
+
+
+def _months(ds):
+    """The calendar month of each hour's middle (as the engine takes it)."""
+    from workbench.constants import HALF_HOUR
+    return (ds["time"].values - HALF_HOUR).astype("datetime64[M]").astype(int) % 12 + 1
+
+
+def test_wesely_so2_over_forests_bullet_of_section_9_2(forests):
+    """"Wesely SO2 over forests": the dry and wet hours of the ridge conifer and the
+    farm deciduous stand (2021, drag law): R_c(SO2) medians [s/m], mean Vd [cm/s],
+    shares of the hours [%]."""
+    import numpy as np
+    m = re.search(r"on the ridge conifer the dry-hour R_c\(SO2\) has a median of (\d+) s/m "
+                  r"\(.*?in categories 2-3, which hold (\d+) % of the hours, .*?\) and a "
+                  r"dry-hour mean Vd of ([\d.]+) cm/s, the wet hours \((\d+) %, rain (\d+) "
+                  r"%\) a median R_c of (\d+) s/m and a mean Vd of ([\d.]+) cm/s\. The farm "
+                  r"deciduous stand: dry median (\d+) s/m, wet (\d+) % of hours; its "
+                  r"categories 2 and 3 \((\d+) % of the year, no upper-canopy stomata in "
+                  r"Wesely's table\) give ([\d.]+) and ([\d.]+) cm/s", _flat(DOC.read_text()))
+    assert m, "the bullet 'Wesely SO2 over forests' of docs/methods_dry.md 9.2"
+    ds = forests["wesely1989", "drag_law"]
+    got = []
+    for site, rec in (("ridge", "conifer_forest"), ("farm", "deciduous_forest")):
+        d = ds.sel(site=site, receptor=rec)
+        kind = d["wet_kind"].values                    # 0 dry, 1 dew, 2 rain
+        dry, wet = kind == 0, kind > 0
+        rc, vd = d["rc_SO2"].values, d["vd_SO2"].values * 100.0
+        cat = d["seasonal_category"].values
+        cat23 = f"{100 * np.isin(cat, (2, 3)).mean():.0f}"
+        if site == "ridge":
+            got += [f"{np.nanmedian(rc[dry]):.0f}", cat23, _r(np.nanmean(vd[dry])),
+                    f"{100 * wet.mean():.0f}", f"{100 * (kind == 2).mean():.0f}",
+                    f"{np.nanmedian(rc[wet]):.0f}", _r(np.nanmean(vd[wet]))]
+        else:
+            got += [f"{np.nanmedian(rc[dry]):.0f}", f"{100 * wet.mean():.0f}", cat23,
+                    _r(np.nanmean(vd[cat == 2])), _r(np.nanmean(vd[cat == 3]))]
+    assert m.groups() == tuple(got), f"re-measure docs/methods_dry.md 9.2: {got}"
+
+
+def test_zhang_over_the_deciduous_stand_bullet_of_section_9_2(forests):
+    """"Zhang SO2 and HNO3 over the farm deciduous stand": its annual and seasonal Vd
+    [cm/s], mean u* [m/s], R_c medians and mean Ra + Rb [s/m] (2021)."""
+    import numpy as np
+    text = _flat(DOC.read_text())
+    m = re.search(r"\*\*Zhang SO2 and HNO3 over the farm deciduous stand\*\* \(SO2 ([\d.]+), "
+                  r"HNO3 ([\d.]+); ([\d.]+) and ([\d.]+) under the blending height\)", text)
+    s = re.search(r"May-September SO2 ([\d.]+) and HNO3 ([\d.]+) cm/s, November-March "
+                  r"([\d.]+) and ([\d.]+)\. The miss comes from the u\* the drag law gives a "
+                  r"landscape-scale forest \(([\d.]+) m/s mean, ([\d.]+) in May-September\): "
+                  r".*?\(SO2 R_c median (\d+) s/m; (\d+) under the blending height\), and for "
+                  r"HNO3 the mean Ra \+ Rb is (\d+) s/m with an R_c median of (\d+) s/m", text)
+    assert m and s, "the bullet 'Zhang SO2 and HNO3 over the farm deciduous stand'"
+    d = forests["zhang2003", "drag_law"].sel(site="farm", receptor="deciduous_forest")
+    b = forests["zhang2003", "blending_height"].sel(site="farm", receptor="deciduous_forest")
+    mon = _months(d)
+    summer, winter = np.isin(mon, (5, 6, 7, 8, 9)), np.isin(mon, (11, 12, 1, 2, 3))
+
+    def vd(x, g, sel=slice(None)):
+        return _r(np.nanmean(x[f"vd_{g}"].values[sel]) * 100.0)
+    assert m.groups() == (vd(d, "SO2"), vd(d, "HNO3"), vd(b, "SO2"), vd(b, "HNO3"))
+    u = d["friction_velocity"].values
+    got = (vd(d, "SO2", summer), vd(d, "HNO3", summer), vd(d, "SO2", winter),
+           vd(d, "HNO3", winter), _r(np.nanmean(u)), _r(np.nanmean(u[summer])),
+           f"{np.nanmedian(d['rc_SO2'].values):.0f}", f"{np.nanmedian(b['rc_SO2'].values):.0f}",
+           f"{np.nanmean(d['ra'].values + d['rb_HNO3'].values):.0f}",
+           f"{np.nanmedian(d['rc_HNO3'].values):.0f}")
+    assert s.groups() == got, f"re-measure docs/methods_dry.md 9.2: {got}"
