@@ -408,3 +408,58 @@ def test_zhang_over_the_deciduous_stand_bullet_of_section_9_2(forests):
            f"{np.nanmean(d['ra'].values + d['rb_HNO3'].values):.0f}",
            f"{np.nanmedian(d['rc_HNO3'].values):.0f}")
     assert s.groups() == got, f"re-measure docs/methods_dry.md 9.2: {got}"
+
+
+def test_so2_cuticle_sentences_of_sections_9_2_and_9_6(study):
+    """Section 9.6: "On the demo (2021) the dry hours are 43-71 % of the year at the
+    receptors below, with a median air RH of 81-87 % in them; the dry-hour median
+    R_c(SO2) falls from 723 to 40 s/m over the ridge conifer and from 1018 to 69 s/m over
+    the farm deciduous stand, and from 312-357 to 21-70 s/m over the grasses" (Wesely,
+    the scheme's cuticle against ``so2_cuticle = "erisman1994"``; the receptors of the
+    table but water, where the option does not act); section 9.2: the humid uplands'
+    grass, "median RH 88-91 %" (ridge and fell, every hour of 2021)."""
+    import numpy as np
+
+    from workbench.drydep import DryOptions, velocities
+    from workbench.stages import met_with_air
+    text = _flat(DOC.read_text())
+    m = re.search(r"On the demo \(2021\) the dry hours are (\d+)-(\d+) % of the year at the "
+                  r"receptors below, with a median air RH of (\d+)-(\d+) % in them; the "
+                  r"dry-hour median R_c\(SO2\) falls from (\d+) to (\d+) s/m over the ridge "
+                  r"conifer and from (\d+) to (\d+) s/m over the farm deciduous stand, and "
+                  r"from (\d+)-(\d+) to (\d+)-(\d+) s/m over the grasses", text)
+    u = re.search(r"takes the grass of the demo's humid uplands above 0\.8 \(ridge [\d.]+, "
+                  r"fell [\d.]+; median RH (\d+)-(\d+) %\)", text)
+    assert m and u, "the SO2-cuticle sentences of docs/methods_dry.md 9.2 and 9.6"
+    surf = study.surfaces()
+    runs = {}
+    for c in ("scheme", "erisman1994"):
+        opt = DryOptions(gas_scheme="wesely1989", particles=(), gases=("SO2",),
+                         so2_cuticle=c)
+        met = met_with_air(study.inputs.met, study.inputs.air, surf, opt).sel(
+            time=slice(*_vd_table_module().YEAR))
+        runs[c] = velocities(met, surf, opt)
+    ds0, ds1 = runs["scheme"], runs["erisman1994"]
+    dry_share, rh_dry, rc = [], [], {}
+    for s in ds0["site"].values:
+        for r in ds0["receptor"].values:
+            if not bool(ds0["active"].sel(site=s, receptor=r)) or r == "water":
+                continue
+            dry = ds0["wet_kind"].sel(site=s, receptor=r).values == 0
+            rh = met["relative_humidity"].sel(site=s).values
+            dry_share.append(dry.mean())
+            rh_dry.append(np.nanmedian(rh[dry]))
+            rc[s, r] = tuple(np.nanmedian(d["rc_SO2"].sel(site=s, receptor=r).values[dry])
+                             for d in (ds0, ds1))
+    grass = [rc[s, "grass"] for s in ("ridge", "fell", "farm")]
+
+    def w(x):
+        return f"{x:.0f}"
+    got = (w(100 * min(dry_share)), w(100 * max(dry_share)), w(100 * min(rh_dry)),
+           w(100 * max(rh_dry)), *map(w, rc["ridge", "conifer_forest"]),
+           *map(w, rc["farm", "deciduous_forest"]), w(min(g[0] for g in grass)),
+           w(max(g[0] for g in grass)), w(min(g[1] for g in grass)),
+           w(max(g[1] for g in grass)))
+    assert m.groups() == got, f"re-measure docs/methods_dry.md 9.6: {got}"
+    up = [np.nanmedian(met["relative_humidity"].sel(site=s).values) for s in ("ridge", "fell")]
+    assert u.groups() == (w(100 * min(up)), w(100 * max(up))), up
