@@ -40,3 +40,24 @@ def test_the_conductivity_ratio_of_the_demo(samples):
     for basis in ("measured", "sum"):
         cd = np.abs(conductivity_difference(calc[ok], meas[ok], basis))
         assert (cd <= limit[ok]).all(), basis
+
+
+def test_the_trace_weeks_trend_of_mere(demo_year_run):
+    """Section 7, "Trace weeks": "the monthly seasonal Kendall trends of trends.csv at
+    those two sites now use the three months (e.g. mere wet NO3: tau -0.122 -> -0.156,
+    p 0.058 -> 0.035": the values now (trends.csv as `workbench run` writes it; the
+    values before are history)."""
+    from workbench.analysis.outputs import yearly_and_monthly_rows
+    from workbench.analysis.trends import change_notes, detection_limit_notes, trend_table
+    _, study, res = demo_year_run
+    text = flat_section("## 7. Completeness and status per period", "## 8.", doc="methods_wet.md")
+    m = re.search(r"\(e\.g\. mere wet NO3: tau [-\d.]+ -> ([-\d.]+), p [\d.]+ -> ([\d.]+);", text)
+    assert m, "the trace weeks' trend of docs/methods_wet.md 7"
+    year_rows, month_rows = yearly_and_monthly_rows(res, study)
+    tr = trend_table(year_rows, month_rows, detection_limit_notes(study.inputs),
+                     changes=change_notes(study.catalogue(), study.inputs))
+    row = tr[(tr["site"] == "mere") & (tr["pathway"] == "wet") & (tr["species"] == "NO3")
+             & (tr["series"] == "monthly")]
+    assert len(row) and row["test"].str.startswith("seasonal_kendall").all()
+    got = {(f"{t:.3f}", f"{p:.3f}") for t, p in zip(row["tau"], row["p_value"])}
+    assert got == {m.groups()}, got
