@@ -510,9 +510,10 @@ def test_one_demo_hour_per_miss_of_section_9_2(study):
         opt = DryOptions(gas_scheme=scheme, particles=("pNO3",), gases=("SO2", "HNO3", "NO2"))
         if scheme not in met_cache:
             met_cache[scheme] = met_with_air(study.inputs.met, study.inputs.air, surf, opt)
-        met = met_cache[scheme].sel(time=[t])
-        ds = velocities(met, surf, opt).sel(site=site, receptor=rec).isel(time=0)
-        m0 = met.sel(site=site).isel(time=0)
+        # a day before the hour too: the wetness reads the previous hour's rain
+        met = met_cache[scheme].sel(time=slice(t - np.timedelta64(24, "h"), t))
+        ds = velocities(met, surf, opt).sel(site=site, receptor=rec).sel(time=t)
+        m0 = met.sel(site=site).sel(time=t)
         got = {"T": float(m0["temperature"]) - 273.15, "u*": float(ds["friction_velocity"]),
                "Ra": float(ds["ra"]), "Vd": float(ds[f"vd_{gas}"]) * 100.0}
         want = {"T": h.group(4), "u*": re.search(r"u\* ([\d.]+)", state).group(1),
