@@ -539,3 +539,45 @@ def test_one_demo_hour_per_miss_of_section_9_2(study):
             assert _as_written(got[k], w) == w, (miss, state[:40], k, got[k], w)
             checked += 1
     assert checked >= 39
+
+
+def test_zhang_no2_over_land_bullet_of_section_9_2(demo, study):
+    """"Zhang NO2 over land": Zhang's O3 and NO2 and Wesely's NO2 over land (annual
+    means of 2021), NO2 with the stomata shut (the scheme's own cuticle and ground paths
+    alone, 1/R_c = 1/R_cut + 1/(R_ac + R_g), hour by hour) and the medians of the ground
+    path R_ac + R_g [s/m, to the ten] over every land receptor but the deciduous stand."""
+    import numpy as np
+
+    from workbench.drydep import DryOptions, velocities
+    from workbench.stages import met_with_air
+    means, text = demo
+    m = re.search(r"Zhang's O3 is ([\d.]+)-([\d.]+) cm/s over land, so NO2 follows at "
+                  r"([\d.]+)-([\d.]+)\. .*?with the stomata shut altogether \(R_m infinite\) "
+                  r"NO2 is still ([\d.]+)-([\d.]+) cm/s over the land receptors \(([\d.]+) over "
+                  r"the deciduous stand\), measured from the scheme's own cuticle and ground "
+                  r"paths; the ground path alone \(R_ac \+ R_g, R_g = 250 s/m for NO2\) has "
+                  r"medians of (\d+)-(\d+) s/m over short vegetation and the conifer\. .*?"
+                  r"\(Wesely's, ([\d.]+)-([\d.]+) here\)", _flat(text))
+    assert m, "the bullet 'Zhang NO2 over land' of docs/methods_dry.md 9.2"
+    z, w = means(gas_scheme="zhang2003"), means(gas_scheme="wesely1989")
+    surf = study.surfaces()
+    opt = DryOptions(gas_scheme="zhang2003", particles=(), gases=("NO2",))
+    met = met_with_air(study.inputs.met, study.inputs.air, surf, opt)
+    ds = velocities(met.sel(time=slice(*_vd_table_module().YEAR)), surf, opt)
+    land = [(s, r) for s in ds["site"].values for r in ds["receptor"].values
+            if bool(ds["active"].sel(site=s, receptor=r)) and r != "water"]
+    shut, ground = {}, {}
+    for s, r in land:
+        d = ds.sel(site=s, receptor=r)
+        path = d["rc_NO2_ground"].values + d["rc_canopy_transfer"].values
+        rns = 1.0 / (1.0 / d["rc_NO2_cuticle"].values + 1.0 / path)
+        shut[s, r] = np.nanmean(1.0 / (d["ra"].values + d["rb_NO2"].values + rns)) * 100.0
+        ground[s, r] = np.nanmedian(path)
+    stand = ("farm", "deciduous_forest")
+    others = [k for k in land if k != stand]
+    got = (_span(z, "O3", land).split("-") + _span(z, "NO2", land).split("-")
+           + [_r(min(shut[k] for k in others)), _r(max(shut[k] for k in others)),
+              _r(shut[stand]), f"{round(min(ground[k] for k in others), -1):.0f}",
+              f"{round(max(ground[k] for k in others), -1):.0f}"]
+           + _span(w, "NO2", land).split("-"))
+    assert m.groups() == tuple(got), f"re-measure docs/methods_dry.md 9.2: {got}"
