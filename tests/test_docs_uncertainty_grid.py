@@ -94,15 +94,19 @@ def test_the_table_of_draws_held(held):
 def test_the_share_of_a_samples_draws_outside(held):
     text = flat_section(*SECTION)
     m = re.search(r"Then (\d+)-(\d+) % of the draws of a sample whose ratio involves such a "
-                  r"value fall outside", text)
+                  r"value fall outside \(but for (\d+) of the farm's (\d+) such samples, which "
+                  r"have none outside\)", text)
     assert m, "the sentence under the table"
-    inside, others = [], []
+    inside, others, none = [], [], {}
     for site in ("ridge", "farm"):
         for sp, (_, _, _, share, involved) in held[site, 4].items():
             inside += list(share[involved & (share > 0)])
             others += list(share[~involved])
-    assert (f"{100 * min(inside):.0f}", f"{100 * max(inside):.0f}") == m.groups(), \
-        (min(inside), max(inside))
+            n0, n = none.get(site, (0, 0))
+            none[site] = (n0 + int((involved & (share == 0)).sum()), n + int(involved.sum()))
+    assert none["ridge"][0] == 0
+    assert (f"{100 * min(inside):.0f}", f"{100 * max(inside):.0f}",
+            *map(str, none["farm"])) == m.groups(), (min(inside), max(inside), none)
     assert max(others) == 0.0, "the draws of the other samples stay on the grid"
 
 
