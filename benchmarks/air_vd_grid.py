@@ -58,7 +58,12 @@ def _quiet(fn, *a, **k):
         return fn(*a, **k)
 
 
-def check(sc, site, draws, seed, n_check, air_sd=None, censored_every=0):
+def drawn_site(sc, site, draws, seed, air_sd=None, censored_every=0):
+    """(study, run arguments, linear layer, the site's index in it, its draws' noise):
+    the site of scenario `sc` run and drawn with ``vd_follows_air`` (`draws` draws,
+    `seed`; ``air_rel_sd`` `air_sd` where given; every `censored_every`-th SO2 and NH3
+    sample taken as below detection where not 0). tests/test_docs_uncertainty_grid.py
+    holds docs/methods_uncertainty.md's "Draws beyond the grid" with it."""
     study, args = study_and_args(sc)
     res = _quiet(study.run, *args)
     more = {} if air_sd is None else {"air_rel_sd": air_sd}
@@ -77,6 +82,12 @@ def check(sc, site, draws, seed, n_check, air_sd=None, censored_every=0):
     year0 = int(lay.period_year.min())
     noise = U.site_noise(ls, opt, draws, 1, ds.sizes["period"], (seed, site), year0,
                          (ds["period_start"].values, ds["period_end"].values))
+    return study, args, lay, k, noise
+
+
+def check(sc, site, draws, seed, n_check, air_sd=None, censored_every=0):
+    study, args, lay, k, noise = drawn_site(sc, site, draws, seed, air_sd, censored_every)
+    ds, ls = lay.budget, lay.sites[k]
     recs = [str(r) for r in ds["receptor"].values]
     out = {}
     for sp, grid in ls.air_vd.items():

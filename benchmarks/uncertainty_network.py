@@ -41,6 +41,29 @@ def _value(text):
         return text
 
 
+def own_surface_span_draws(q, catalogue):
+    """(sites, their own surfaces, {"s": (D, K), "n": (D, K)}): the draws of each site's
+    span mean of the S and N totals on its own surface [eq/ha/yr], from the
+    ``total_draws`` of :func:`workbench.analysis.uncertainty.monte_carlo`'s result `q`
+    (the network's sum: ``numpy.nansum`` over the sites; tests/test_docs_uncertainty_
+    network.py holds docs/methods_uncertainty.md's figures with it)."""
+    import numpy as np
+    td = q.total_draws
+    cat = {s.id: s for s in catalogue}
+    sites = [str(s) for s in td["site"].values]
+    own = [cat[s].land_use for s in sites]
+    span = list(td["period"].values).index("span")
+    draws = {e: np.stack([td[f"{e}_dep_eq_ha_yr"].sel(site=s, receptor=r).values[:, span]
+                          for s, r in zip(sites, own)], 1) for e in ("s", "n")}
+    return sites, own, draws
+
+
+def interval(v):
+    """The 5, 50 and 95 % of the draws `v` (numpy's default quantile)."""
+    import numpy as np
+    return [float(x) for x in np.quantile(v, [0.05, 0.5, 0.95])]
+
+
 def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--scenario", default=str(ROOT / "demo_data" / "scenario.toml"))
@@ -81,27 +104,20 @@ def main(argv=None):
     cpu, wall = time.process_time() - c0, time.perf_counter() - w0
     peak = tracemalloc.get_traced_memory()[1]
     tracemalloc.stop()
-    td = q.total_draws
-    cat = {s.id: s for s in study.catalogue()}
-    sites = [str(s) for s in td["site"].values]
-    own = [cat[s].land_use for s in sites]
-    span = list(td["period"].values).index("span")
     out = {"cpu_s": cpu, "wall_s": wall, "layer_cpu_s": layer_cpu, "layer_wall_s": layer_wall,
            "peak_mb": peak / 1e6, "intervals": {}}
     arrays = {"years_deposition": q.years["deposition"].values,
               "span_total": q.span["total_deposition"].values}
+    sites, own, per_site = own_surface_span_draws(q, study.catalogue())
 
     def line(label, v):
-        lo, mid, hi = np.quantile(v, [0.05, 0.5, 0.95])
-        out["intervals"][label] = [lo, mid, hi]
+        lo, mid, hi = out["intervals"][label] = interval(v)
         return f"{label}: {lo:.1f} .. {hi:.1f} (median {mid:.1f}, width / median {(hi - lo) / mid:.3f})"
     for e in ("s", "n"):
-        v = td[f"{e}_dep_eq_ha_yr"]
-        per_site = np.stack([v.sel(site=s, receptor=r).values[:, span] for s, r in zip(sites, own)], 1)
-        arrays[f"{e}_span_draws"] = per_site
-        print(line(f"{e.upper()} network sum, span [eq/ha/yr]", np.nansum(per_site, 1)))
+        arrays[f"{e}_span_draws"] = per_site[e]
+        print(line(f"{e.upper()} network sum, span [eq/ha/yr]", np.nansum(per_site[e], 1)))
         for k, s in enumerate(sites):
-            print("  " + line(f"{s} ({own[k]})", per_site[:, k]))
+            print("  " + line(f"{s} ({own[k]})", per_site[e][:, k]))
     if args.npz:
         np.savez(args.npz, **arrays)
     print(f"{args.draws} draws: CPU {cpu:.2f} s, tracemalloc peak {peak / 1e6:.1f} MB; "

@@ -38,3 +38,30 @@ def farm_span(uncertainty_figures, tmp_path_factory):
     """(study, result) of the demo's farm alone over 2016-2023 (the demo's span), every
     option at the demo scenario's value; read only."""
     return uncertainty_figures.farm_run(tmp_path_factory.mktemp("farm_span"))
+
+
+def _bench_script(name):
+    """The module of the script benchmarks/<name>.py (the measurements some docs quote)."""
+    import importlib.util
+    from pathlib import Path
+    path = Path(__file__).resolve().parents[1] / "benchmarks" / f"{name}.py"
+    spec = importlib.util.spec_from_file_location(f"bench_{name}", path)
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    return mod
+
+
+@pytest.fixture(scope="session")
+def demo_year_run():
+    """(scenario, study, result) of the whole demo (demo_data/scenario.toml, yearly
+    periods, every option at the scenario's value), as `workbench run` computes it before
+    its draws; read only."""
+    from pathlib import Path
+
+    from workbench.pipeline import Study
+    from workbench.scenario import load_scenario
+    sc = load_scenario(Path(__file__).resolve().parents[1] / "demo_data" / "scenario.toml")
+    study = Study.from_scenario(sc)
+    res = study.run(sc.options["wet"], sc.options["dry"], sc.options["budget"],
+                    sc.fixed_velocity, "year")
+    return sc, study, res

@@ -83,3 +83,15 @@ def test_the_farm_ranges_quoted_beside_the_tables_of_past_changes(uncertainty_fi
             f"{g['2020', 'S']} in 2020, N {g['span', 'N']} and {g['2020', 'N']}") in text
     c = m.farm_ranges(defaults, "crops")
     assert f"farm / crops N {c['2020', 'N']}, {c['span', 'N']}, before and now" in text
+
+
+def test_the_farm_quoted_in_methods_analysis(uncertainty_figures, farm_span, defaults, figures):
+    """docs/methods_analysis.md, "Probability of exceedance": "(the demo's farm: 106 and
+    about 3,600 eq/ha/yr, the NH3 Vd factor": the point acidity exceedance of the farm's
+    crops and the 95 % of its 2,000 draws, to the hundred."""
+    row = uncertainty_figures._span_exceedance(farm_span[0], defaults)
+    p95 = float(row["ex_acidity_eq_ha_yr_p95"])
+    text = _flat((DOC.parent / "methods_analysis.md").read_text(encoding="utf-8"))
+    want = (f"(the demo's farm: {figures['point_exceedance']:.0f} and about "
+            f"{round(p95, -2):,.0f} eq/ha/yr, the NH3 Vd factor")
+    assert want in text, f"re-measure docs/methods_analysis.md: {want}"
