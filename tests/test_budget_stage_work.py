@@ -7,26 +7,18 @@ components after the bulk collectors and the wet variables: ``wet_assembled``) n
 computed again on a completeness option's change."""
 import dataclasses
 import warnings
-from pathlib import Path
 
 import numpy as np
 import pytest
 
 from workbench.pipeline import Study
 
-DEMO = Path(__file__).resolve().parents[1] / "demo_data" / "scenario.toml"
+from tiny_inputs import ridge_part_study
 
 
 @pytest.fixture(scope="module")
 def study():
-    from workbench.scenario import load_scenario
-    sc = load_scenario(DEMO)
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", RuntimeWarning)
-        whole = Study.from_scenario(sc)
-    inputs = whole.inputs.subset(["ridge"], np.datetime64("2020-11-15"),
-                                 np.datetime64("2021-08-15"))
-    return Study(inputs, whole.site_overrides), sc
+    return ridge_part_study()
 
 
 def _run(st, opts):

@@ -22,7 +22,8 @@ from workbench.pipeline import Study
 from workbench.wet import WetOptions
 from workbench.wet import options as wet_options_module
 
-DEMO = Path(__file__).resolve().parents[1] / "demo_data" / "scenario.toml"
+from tiny_inputs import ridge_part_study
+
 CLASSES = {"wet": WetOptions, "dry": DryOptions, "budget": BudgetOptions}
 #: The fields that no stage reads, and why (checked both ways below).
 UNREAD = {("dry", "compare_schemes")}          # `workbench run` runs the graph per scheme
@@ -84,14 +85,7 @@ def perturbation(group, name, value, explicit):
 
 @pytest.fixture(scope="module")
 def study():
-    from workbench.scenario import load_scenario
-    sc = load_scenario(DEMO)
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", RuntimeWarning)
-        whole = Study.from_scenario(sc)
-    inputs = whole.inputs.subset(["ridge"], np.datetime64("2020-11-15"),
-                                 np.datetime64("2021-08-15"))
-    return Study(inputs, whole.site_overrides), sc
+    return ridge_part_study()
 
 
 def _run(st, opts, fixed):

@@ -142,3 +142,20 @@ def make_analyst_network(out_dir, **kw):
     module = importlib.util.module_from_spec(spec)
     spec.loader.exec_module(module)
     return module.make_analyst_network(out_dir, **kw)
+
+
+def ridge_part_study():
+    """The demo's ridge from 2020-11-15 to 2021-08-15 as a Study, with the scenario it
+    came from: a part-year of one site, small enough for tests of the stage graph."""
+    import warnings
+    from pathlib import Path
+
+    from workbench.pipeline import Study
+    from workbench.scenario import load_scenario
+    sc = load_scenario(Path(__file__).resolve().parents[1] / "demo_data" / "scenario.toml")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        whole = Study.from_scenario(sc)
+    inputs = whole.inputs.subset(["ridge"], np.datetime64("2020-11-15"),
+                                 np.datetime64("2021-08-15"))
+    return Study(inputs, whole.site_overrides), sc
