@@ -120,7 +120,8 @@ def caution_box() -> widgets.HTML:
     from .figure_open import UPDATING_CSS
     left_out = "".join(f"<li><b>{html.escape(a)}</b>: {html.escape(b)}</li>" for a, b in OMISSIONS)
     return widgets.HTML(
-        UPDATING_CSS + "<div style='background:#fff6e0;border-left:4px solid #E69F00;padding:.4em .8em;"
+        UPDATING_CSS
+        + "<div style='background:#fff6e0;border-left:4px solid #E69F00;padding:.4em .8em;"
         f"font-size:90%'><b>Caution.</b> {html.escape(CAUTION)}"
         f"<details><summary>What the budget leaves out</summary><ul>{left_out}</ul></details>"
         "</div>")
