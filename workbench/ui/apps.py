@@ -446,14 +446,25 @@ class SiteExplorer(SavedText, widgets.VBox):
         # (browser trial: the first change of a session, slower, showed the opening line)
         shown = self.change_w.value
         self.change_w.value = f"<i>{html.escape(text)}…</i>"
+        # the figures to be redrawn say so in the page while the kernel computes (the
+        # control already shows its new value; the figures still the old run)
+        marked = [self.figs["budget"], self.figs.get(TABS[self.tabs.selected_index or 0])]
+        marked = [f for f in marked if hasattr(f, "mark_updating")]
+        for f in marked:
+            f.mark_updating()
         try:
-            self.result = self._run()
-        except Exception as exc:  # shown in the app; the previous figures stay
-            self.change_w.value = shown                 # and the line that goes with them
-            self.message_w.value = f"<span style='color:#D55E00'>{html.escape(str(exc))}</span>"
-            self.progress.step("failed", 1.0)
-            raise
-        self.redraw()
+            try:
+                self.result = self._run()
+            except Exception as exc:  # shown in the app; the previous figures stay
+                self.change_w.value = shown                 # and the line that goes with them
+                self.message_w.value = (f"<span style='color:#D55E00'>"
+                                        f"{html.escape(str(exc))}</span>")
+                self.progress.step("failed", 1.0)
+                raise
+            self.redraw()
+        finally:
+            for f in marked:        # updating still while a page has not drawn the update
+                f.settle()
         self.latency_s = time.perf_counter() - t0
         self.progress.done("updated")
 

@@ -114,6 +114,10 @@ def refresh(widget: go.FigureWidget, fig) -> dict:
     if isinstance(widget, OpenedWhole) and (out["restyled"] or out["relayout"]
                                             or out["replaced"]):
         edit = widget._last_trace_edit_id
+        # the figure reads as updating in the page until a page says it has drawn this
+        # (a page whose messages anywidget drops drew it 4-16 s later, after the
+        # opening anew, and showed the old figure meanwhile with nothing said)
+        widget.expect_drawing()
         if edit == sent_before:              # nothing a page answers (shapes only): anew
             widget.reopen()
         else:

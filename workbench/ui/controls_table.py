@@ -114,10 +114,14 @@ def table_html(frame: pd.DataFrame, empty="none", wide=(), fill=False) -> str:
 
 
 def caution_box() -> widgets.HTML:
-    """The cautions of the README and the report, and what the budget leaves out."""
+    """The cautions of the README and the report, and what the budget leaves out; it
+    also carries the style of a figure being updated (every app with figures shows
+    this box: :data:`workbench.ui.figure_open.UPDATING_CSS`)."""
+    from .figure_open import UPDATING_CSS
     left_out = "".join(f"<li><b>{html.escape(a)}</b>: {html.escape(b)}</li>" for a, b in OMISSIONS)
     return widgets.HTML(
-        "<div style='background:#fff6e0;border-left:4px solid #E69F00;padding:.4em .8em;"
+        UPDATING_CSS
+        + "<div style='background:#fff6e0;border-left:4px solid #E69F00;padding:.4em .8em;"
         f"font-size:90%'><b>Caution.</b> {html.escape(CAUTION)}"
         f"<details><summary>What the budget leaves out</summary><ul>{left_out}</ul></details>"
         "</div>")

@@ -25,6 +25,22 @@ SWAP_S = 60.0
 #: about a second (0.1-1.2 s from the change to the redraw at load average 15 on a
 #: shared 2-core machine); a later answer only costs a needless new opening.
 ANSWER_S = 4.0
+#: Class of a box whose figure may not show the latest state yet (:meth:`OpenedWhole.
+#: mark_updating`, :func:`workbench.ui.controls.refresh`): :data:`UPDATING_CSS` dims the
+#: drawing and writes :data:`UPDATING_TEXT` over it.
+UPDATING_CLASS = "wb-figure-updating"
+#: The words over a figure that does not show the latest state yet.
+UPDATING_TEXT = "updating the figure…"
+#: CSS of :data:`UPDATING_CLASS` (carried by :func:`workbench.ui.controls.caution_box`,
+#: which every app with figures shows).  Only the box's class changes: a box is an
+#: ipywidgets model of its own, whose messages arrive when the figure's are dropped.
+UPDATING_CSS = (
+    f"<style>.{UPDATING_CLASS} > .js-plotly-plot {{position: relative;}}"
+    f".{UPDATING_CLASS} > .js-plotly-plot > * {{opacity: 0.3;}}"
+    f".{UPDATING_CLASS} > .js-plotly-plot::after {{content: '{UPDATING_TEXT}';"
+    "position: absolute; top: 45%; left: 0; right: 0; margin: 0 auto; width: max-content;"
+    "padding: 2px 10px; background: #fff6e0; border: 1px solid #E69F00;"
+    "font-weight: bold; z-index: 2000; pointer-events: none;}</style>")
 
 
 class OpenedWhole(go.FigureWidget):
@@ -42,6 +58,8 @@ class OpenedWhole(go.FigureWidget):
 
     def __init__(self, *args, **kwargs):
         self._wb_opening = True
+        self._wb_marked = False     # an app is computing what the figure will show
+        self._wb_awaited = None     # trace edit id a page has not said it drew
         try:
             super().__init__(*args, **kwargs)
         finally:
@@ -52,6 +70,45 @@ class OpenedWhole(go.FigureWidget):
         if getattr(self, "_wb_opening", False):
             return
         super().open()
+
+    def mark_updating(self) -> None:
+        """Say in the page that this figure is about to change (an app computing what it
+        will show): its boxes get :data:`UPDATING_CLASS` until :meth:`settle` and every
+        update sent meanwhile has been drawn."""
+        self._wb_marked = True
+        self._wb_show_updating()
+
+    def settle(self) -> None:
+        """The app's computing is done (:meth:`mark_updating`): the figure reads as
+        current once a page has drawn every update sent (at once if none waits)."""
+        self._wb_marked = False
+        self._wb_show_updating()
+
+    def expect_drawing(self) -> None:
+        """An update was sent (:func:`workbench.ui.controls.refresh`): the figure reads
+        as updating until the page that shows it says it has drawn the last one (plotly's
+        trace deltas for the last trace edit, from the comm open now).  Only in a kernel
+        (an event loop runs): nothing answers a script or a test."""
+        if _event_loop() is None:
+            return
+        self._wb_awaited = self._last_trace_edit_id
+        self._wb_show_updating()
+
+    @property
+    def updating(self) -> bool:
+        """True while the page may show this figure other than its Python side holds it
+        (:data:`UPDATING_CLASS` on its boxes)."""
+        return bool(getattr(self, "_wb_marked", False)
+                    or getattr(self, "_wb_awaited", None) is not None)
+
+    def _wb_show_updating(self):
+        """Put :data:`UPDATING_CLASS` on the boxes holding the figure, or take it off."""
+        on = self.updating
+        for box in _boxes_holding(self):
+            if on:
+                box.add_class(UPDATING_CLASS)
+            else:
+                box.remove_class(UPDATING_CLASS)
 
     def await_answer(self, edit_id: int, seconds: float | None = None) -> bool:
         """Call :meth:`reopen_unless_answered` in `seconds` (default :data:`ANSWER_S`)
@@ -142,13 +199,21 @@ class OpenedWhole(go.FigureWidget):
 
     def _handle_msg(self, msg):
         super()._handle_msg(msg)
-        if getattr(self, "_wb_swap", None) is None or self.comm is None:
+        if self.comm is None:
             return
         content = msg.get("content", {})
         state = content.get("data", {}).get("state", {})
-        if content.get("comm_id") == self.comm.comm_id and (
+        if content.get("comm_id") != self.comm.comm_id:
+            return                           # an old comm's view: not what is shown now
+        if getattr(self, "_wb_swap", None) is not None and (
                 "_js2py_traceDeltas" in state or "_js2py_layoutDelta" in state):
             self._wb_finish_swap()           # the new view has drawn
+        answer = state.get("_js2py_traceDeltas") or {}
+        awaited = getattr(self, "_wb_awaited", None)
+        if awaited is not None and isinstance(answer, dict) and \
+                answer.get("trace_edit_id") == self._last_trace_edit_id:
+            self._wb_awaited = None          # the page drew the last update
+            self._wb_show_updating()
 
     def _wb_detach(self):
         """Take the comm off the widget (updates of the Python side then send nothing)."""

@@ -1,0 +1,131 @@
+"""A figure that may not show the latest state says so in the page.
+
+Defect (browser, a loaded machine): anywidget 0.11 drops every message to a figure whose
+plotly module took over 2 s to load; the figure is then opened anew ANSWER_S (4 s)
+after the last unanswered change, and the new model loads plotly's module again, so the
+page showed the old figure beside the control's new value for 4-16 s (12.3 s measured
+in chromium, unit changed five times in 3 s) with nothing saying so.  Now the boxes
+holding the figure carry ``wb-figure-updating`` (dimmed, "updating the figure…") from
+the update until the view open now says it has drawn the last one; the app marks its
+figures while it computes.  tests/test_browser_figure_updating.py checks the page.
+"""
+import asyncio
+
+import plotly.graph_objects as go
+import pytest
+
+from ui.test_figure_open_state import _boxed, _drawn_message, comms  # noqa: F401
+from workbench.ui.controls import figure_widget, refresh
+from workbench.ui.figure_open import UPDATING_CLASS, UPDATING_CSS
+
+pytestmark = pytest.mark.filterwarnings("ignore::RuntimeWarning")
+
+
+def _classes(box):
+    return list(box._dom_classes)
+
+
+def _bars(x, title):
+    return go.Figure(go.Bar(x=x, y=["a", "b"]), layout={"title": {"text": title}})
+
+
+def test_an_update_reads_as_updating_until_the_page_drew_the_last_one(comms):
+    w, box = _boxed("a", [1.0, 2.0])
+    seen = []
+
+    async def change():
+        refresh(w, _bars([5.0, 6.0], "b"))
+        seen.append(_classes(box))
+        first_edit = w._last_trace_edit_id
+        refresh(w, _bars([7.0, 6.0], "c"))       # a second change before any answer
+        late = _drawn_message(w)
+        late["content"]["data"]["state"]["_js2py_traceDeltas"]["trace_edit_id"] = first_edit
+        w._handle_msg(late)                      # the page drew the first one only
+        seen.append(_classes(box))
+        w._handle_msg(_drawn_message(w))         # ... then the last one
+        seen.append(_classes(box))
+
+    asyncio.run(change())
+    assert seen == [[UPDATING_CLASS], [UPDATING_CLASS], []]
+    assert not w.updating
+
+
+def test_a_figure_opened_anew_reads_as_updating_until_the_new_view_drew(comms):
+    """No page answered: the figure is opened anew; the old drawing stays beside the new
+    model (figure_open.OpenedWhole._wb_swap_in), dimmed, until the new view says it has
+    drawn.  An answer from the old comm's view does not count."""
+    w, box = _boxed("a", [1.0, 2.0])
+    seen = []
+
+    async def change():
+        refresh(w, _bars([5.0, 6.0], "b"))
+        old = _drawn_message(w)                  # the old model's view, answered late
+        assert w.reopen_unless_answered(w._last_trace_edit_id)
+        seen.append(_classes(box))
+        w._handle_msg(old)
+        seen.append(_classes(box))
+        w._handle_msg(_drawn_message(w))
+        seen.append(_classes(box))
+
+    asyncio.run(change())
+    assert seen == [[UPDATING_CLASS], [UPDATING_CLASS], []]
+
+
+def test_nothing_changed_nothing_to_wait_for(comms):
+    w, box = _boxed("a", [1.0, 2.0])
+
+    async def same():
+        refresh(w, _bars([1.0, 2.0], "a"))
+
+    asyncio.run(same())
+    assert _classes(box) == [] and not w.updating
+
+
+def test_an_app_marks_its_figures_while_it_computes(comms, monkeypatch):
+    """The site explorer: from the control's change until the run is done, the budget's
+    box and the open tab's box read as updating; then as long as no page has drawn."""
+    import tempfile
+    from pathlib import Path
+
+    from ui.demo_subset import write_demo_subset
+    from workbench.ui.apps import SiteExplorer
+    from workbench.ui.figure_open import _boxes_holding
+    from workbench.ui.session import Session
+    with tempfile.TemporaryDirectory() as tmp:
+        scenario = write_demo_subset(Path(tmp) / "one", ("ridge",), 2021, 2021)
+        app = SiteExplorer(Session.open(scenario), site="ridge")
+        figs = [app.figs["budget"], app.figs["monthly fluxes"]]
+        during = []
+        run = app._run
+
+        def watched_run(*a, **k):
+            during.append([_classes(b) for f in figs for b in _boxes_holding(f)])
+            return run(*a, **k)
+        monkeypatch.setattr(app, "_run", watched_run)
+        app.controls["wet.on_dust"].value = "exclude"
+        assert during and all(UPDATING_CLASS in c for c in during[0]), during
+        # no kernel here: nothing waits for a page, so the marks are gone
+        assert all(UPDATING_CLASS not in _classes(b) for f in figs for b in _boxes_holding(f))
+
+        def fail(*a, **k):
+            raise RuntimeError("no such input")
+        monkeypatch.setattr(app, "_run", fail)
+        with pytest.raises(RuntimeError):
+            app.controls["wet.on_dust"].value = "flag"
+        assert all(UPDATING_CLASS not in _classes(b) for f in figs for b in _boxes_holding(f))
+
+
+def test_every_app_with_figures_carries_the_style():
+    from workbench.ui.controls import caution_box
+    assert UPDATING_CSS in caution_box().value
+    assert f".{UPDATING_CLASS} > .js-plotly-plot::after" in UPDATING_CSS
+
+
+def test_a_figure_shown_alone_is_left_as_it_is(comms):
+    alone = figure_widget(_bars([1.0, 2.0], "a"))
+
+    async def change():
+        refresh(alone, _bars([5.0, 6.0], "b"))
+
+    asyncio.run(change())
+    assert alone.updating            # no box to mark; the flag still says so
