@@ -192,8 +192,9 @@ def _block_values(grid, role, names, ys, xs, then) -> dict:
         # a block read from chunks of the whole plane held one cache per variable; a
         # zarr store opened with that variable alone: its 1-D coordinates (time,
         # time_bnds, y, x) are not read again for each block and variable (the block is
-        # cut by position)
-        with _open(grid.paths[role], role, only=name) as raw:
+        # cut by position), nor its metadata (those read when the grid was opened)
+        with _open(grid.paths[role], role, only=name,
+                   metadata=grid.zarr_metadata.get(role)) as raw:
             var = raw[name].isel({grid.dims[0]: ys, grid.dims[1]: xs})
             extra = [d for d in var.dims if d != "time" and d not in grid.dims]
             var = var.squeeze(extra, drop=True).transpose("time", *grid.dims)
