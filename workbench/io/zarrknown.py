@@ -8,12 +8,14 @@ from __future__ import annotations
 
 from zarr.storage import WrapperStore
 
-from .zarrstore import METADATA_NAMES
+#: Names of the metadata documents of a zarr store (formats 3 and 2): a key whose last
+#: part is one of these is metadata, any other key a chunk.
+METADATA_NAMES = ("zarr.json", ".zgroup", ".zattrs", ".zarray", ".zmetadata")
 
 
 def is_metadata(key: str) -> bool:
     """True for the key of a metadata document (its last part a name of
-    :data:`~workbench.io.zarrstore.METADATA_NAMES`), False for a chunk's key.
+    :data:`METADATA_NAMES`), False for a chunk's key.
 
     >>> is_metadata("zarr.json"), is_metadata("time/.zattrs"), is_metadata("t/c/0/0/0")
     (True, True, False)

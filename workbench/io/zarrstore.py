@@ -43,9 +43,6 @@ ZARR_EXTRA = 'python -m pip install "deposition-workbench[zarr]"'
 #: Files at the root of a zarr group: format 3 (``zarr.json``) and format 2.
 _GROUP_FILES = ("zarr.json", ".zgroup")
 _ARRAY_FILES = (".zarray",)
-#: Names of the metadata documents of a zarr store (formats 3 and 2): a key whose last
-#: part is one of these is metadata, any other key a chunk.
-METADATA_NAMES = ("zarr.json", ".zgroup", ".zattrs", ".zarray", ".zmetadata")
 
 
 #: A chunk larger than this is named in a note: a reader of chunked inputs (the met
