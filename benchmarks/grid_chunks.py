@@ -26,7 +26,8 @@ for "day", 5 for "month": weekly sampling).
 before/after pair), which prints its wall time (imports excluded), its CPU time (user +
 system of the process), its own peak resident memory (``VmHWM`` of /proc, Linux) and the
 chunks decompressed: for a zarr store the chunk keys read from the store (counted by
-wrapping the store, as tests/test_grid_zarr.py does); for NetCDF4 the chunks that the
+wrapping the store, as tests/test_grid_zarr.py does) and the metadata documents read
+(``zarr_metadata_reads``: through the store and by the store's checks); for NetCDF4 the chunks that the
 reads of the variables touch (counted by wrapping :func:`xarray.Variable` indexing of
 the backend: one read of a time range touches every chunk of that range, and HDF5's
 chunk cache of a few MB cannot hold a variable's chunks between two blocks).
@@ -120,6 +121,16 @@ class _ChunkCount:
                     return await super().get(key, prototype, byte_range)
             return Store(str(path), read_only=True)
         zarrstore._zarr_store = store
+        # the metadata documents read by the store's own reader (workbench.io.zarrstore
+        # ._Files: the store's checks and, since 2026-12-05, every document, once)
+        docs = self.files_docs = []
+        name = "read_bytes" if hasattr(zarrstore._Files, "read_bytes") else "read_json"
+        read = getattr(zarrstore._Files, name)
+
+        def spy_docs(files, doc):
+            docs.append(doc)
+            return read(files, doc)
+        setattr(zarrstore._Files, name, spy_docs)
         from xarray.backends import netCDF4_ as nc4
         me = self
         getitem = nc4.NetCDF4ArrayWrapper._getitem
@@ -138,6 +149,13 @@ class _ChunkCount:
 
     def data_keys(self):
         return [k for k in self.zarr_keys if "/c/" in k or "/c." in k]
+
+    def metadata_reads(self) -> int:
+        """Metadata documents read (zarr.json, .zarray, .zattrs, .zgroup, .zmetadata),
+        through the store or by the store's checks."""
+        names = ("zarr.json", ".zarray", ".zattrs", ".zgroup", ".zmetadata")
+        return sum(k.rsplit("/", 1)[-1] in names for k in self.zarr_keys) + \
+            len(self.files_docs)
 
     def by_array(self):
         """Chunk keys read per array of the stores: [reads, distinct chunks]."""
@@ -188,6 +206,7 @@ def child(folder: Path, layout: str, block: int, read_only: bool, out: Path):
                       "zarr_chunks_read": len(counter.data_keys()),
                       "zarr_chunks_distinct": len(set(counter.data_keys())),
                       "zarr_chunks_by_array": counter.by_array(),
+                      "zarr_metadata_reads": counter.metadata_reads(),
                       "nc4_chunks_read": counter.nc_chunks,
                       "code": str(Path(workbench.__file__).parents[1]),
                       "load": os.getloadavg()[0]}))

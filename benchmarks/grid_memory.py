@@ -20,7 +20,9 @@ block in process (`compute_grid`); ``dask``: every block as a dask task on a loc
 of 2 single-threaded worker processes (as ``workbench grid --workers 2``), each worker's
 idle resident set before the blocks and its peak (VmHWM) after them, and the most block
 results held on the workers at once (a scheduler plugin) and each worker's resident set
-after each task it finished, in order (a worker plugin: block to block).  Printed: the process's peak resident set (VmHWM),
+after each task it finished, in order (a worker plugin: block to block), and the
+largest peak of each kind of task (the copy's ``_copy_one``, the blocks' ``block_result``)
+on each worker (its VmHWM reset when a task starts).  Printed: the process's peak resident set (VmHWM),
 its resident set before the measured part (imports and the open grid), the difference
 ("above base"), the resident set after each block (``grid``: growth across blocks), CPU,
 and the load average, then the ratio of each size's peak above base to the first size's; ``--trace`` adds the tracemalloc peak (slower).  Report ratios of
@@ -158,13 +160,20 @@ def _on_dask(grid, args, block, out: dict, copy_only=False) -> int:
         done = client.run(_worker_status)
         tasks = client.run(_tasks_done)
         by_task = client.run(_task_rss)
+        peaks = client.run(_task_peaks)
         out["block_results_held_at_most"] = client.run_on_scheduler(_held)
     finally:
         close_client(client)
     keys = sorted(base)
     out["worker_base_mb"] = [base[k]["rss_mb"] for k in keys]
-    out["worker_peak_mb"] = [done[k]["peak_mb"] for k in keys]
-    out["worker_peak_above_base_mb"] = [done[k]["peak_mb"] - base[k]["rss_mb"] for k in keys]
+    out["worker_peak_mb"] = [max(done[k]["peak_mb"], peaks[k][1]) for k in keys]
+    out["worker_peak_above_base_mb"] = [p - base[k]["rss_mb"]
+                                        for p, k in zip(out["worker_peak_mb"], keys)]
+    for name in sorted({t for k in keys for t, _ in peaks[k][0]}):
+        # each kind of task's largest peak on each worker, above its idle resident set
+        out[f"worker_peak_above_base_mb_{name}"] = [
+            max((p for t, p in peaks[k][0] if t == name), default=base[k]["rss_mb"])
+            - base[k]["rss_mb"] for k in keys]
     out["worker_rss_after_mb"] = [done[k]["rss_mb"] for k in keys]
     out["worker_tasks"] = [tasks[k] for k in keys]
     out["worker_rss_by_task_mb"] = [by_task[k] for k in keys]
@@ -204,20 +213,40 @@ except ImportError:
 class TaskMemory(WorkerPlugin):
     """Worker plugin: the worker's resident set (VmRSS) after each task it finished, in
     order [MB] (block to block: a flat worker does not grow from its first blocks to
-    its last)."""
+    its last), and each task's own peak: the worker's VmHWM is reset when the task
+    starts (``/proc/self/clear_refs``) and read when it ends, so that the scratch
+    copy's tasks (``_copy_one``) and the blocks' (``block_result``) are told apart.
+    The worker's peak over the whole run is the largest of the peaks seen."""
 
     name = "task-memory"
 
     def setup(self, worker):
-        self.rss = []
+        self.rss, self.tasks, self.most = [], [], 0.0
 
     def transition(self, key, start, finish, **kwargs):
-        if finish == "memory":
+        if finish == "executing":
+            self.most = max(self.most, _status("VmHWM"))
+            try:
+                Path("/proc/self/clear_refs").write_text("5")    # VmHWM := VmRSS
+            except OSError:
+                pass
+        elif finish == "memory":
+            peak = _status("VmHWM")
+            self.most = max(self.most, peak)
             self.rss.append(round(_status("VmRSS")))
+            from dask.utils import key_split
+            self.tasks.append((key_split(key), round(peak)))
 
 
 def _task_rss(dask_worker=None):
     return dask_worker.plugins[TaskMemory.name].rss
+
+
+def _task_peaks(dask_worker=None):
+    """(task name, peak of the worker during the task [MB]) of each task it ran, and the
+    worker's peak over the run [MB]."""
+    plugin = dask_worker.plugins[TaskMemory.name]
+    return plugin.tasks, round(max(plugin.most, _status("VmHWM")))
 
 
 def _held(dask_scheduler=None):

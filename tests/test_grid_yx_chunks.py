@@ -132,6 +132,40 @@ def test_zarr_coordinates_not_read_again_for_each_block(folders, monkeypatch):
     assert coords[TILE] and len(coords[TILE // 2]) == len(coords[TILE]), coords
 
 
+#: Names of a zarr store's metadata documents (formats 3 and 2).
+METADATA = ("zarr.json", ".zarray", ".zattrs", ".zgroup", ".zmetadata")
+
+
+def test_zarr_metadata_read_once_in_a_run(folders, monkeypatch):
+    # every open of a store (a block's variable, as above) read the metadata document
+    # of each array of the store again (2026-12-05: 1,273 metadata reads for the 4
+    # blocks of this grid, 4,969 for its 16 blocks), and opening the grid read each
+    # document twice (xarray's open and the check of the consolidated metadata); now
+    # each document is read once when the grid is opened and carried with the grid:
+    # the blocks read chunks only, at any block size, and the maps are the same bits
+    if "zarr" not in folders:
+        pytest.skip("zarr stores need the zarr extra")
+    read = []
+    real = Path.read_bytes
+
+    def spy(path):          # every whole-file read: zarr's own store and the checks
+        if path.name in METADATA:
+            read.append(str(path))
+        return real(path)
+    monkeypatch.setattr(Path, "read_bytes", spy)
+    grid = _open(folders["zarr"])
+    assert read, "no metadata document read: the count does not see the reads"
+    twice = sorted({p for p in read if read.count(p) > 1})
+    assert not twice, (f"{len(twice)} documents read more than once when the grid was "
+                       f"opened, e.g. {twice[:2]}")
+    for block in (TILE, TILE // 2):                        # 4 blocks, then 16
+        del read[:]
+        got = _maps(grid, block)
+        assert read == [], (block, len(read), sorted(set(read))[:5])
+        if block == TILE:
+            np.testing.assert_array_equal(got, folders["ref"])
+
+
 def test_netcdf4_tiles_read_by_their_block_only(folders, monkeypatch, block=TILE):
     if "nc4" not in folders:
         pytest.skip("NetCDF4 files need the netcdf4 extra")

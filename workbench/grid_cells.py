@@ -48,8 +48,8 @@ def _window(grid: Grid, ys: slice, xs: slice) -> tuple:
 def cut(grid: Grid, ys: slice, xs: slice) -> Grid:
     """The grid as one block of it needs it (:func:`block_catalogue`,
     :func:`read_block`): the 2-D fields of the block's cells only, the scratch copy's
-    index of that block only, no template or notes (for the maps, made in the main
-    process).  A dask task of a block carries this, not the whole grid: each task's
+    index of that block only, the metadata of the met and air zarr stores (not the
+    land use's), no template or notes (for the maps, made in the main process).  A dask task of a block carries this, not the whole grid: each task's
     own copy of the whole grid's fields (0.5 MB pickled at 100 x 100 cells, some
     50 MB at 1,000 x 1,000 by extrapolation) was kept by the worker while the block's
     result waited for the others, so a worker held the whole grid once per block it ran.
@@ -71,7 +71,8 @@ def cut(grid: Grid, ys: slice, xs: slice) -> Grid:
         longitude=grid.longitude[wy, wx].copy(),
         canopy_height=grid.canopy_height[wy, wx].copy(),
         elevation=grid.elevation[wy, wx].copy(), template=None, notes=[], scratch=scratch,
-        origin=(ys.start, xs.start))
+        origin=(ys.start, xs.start),
+        zarr_metadata={r: m for r, m in grid.zarr_metadata.items() if r in ("met", "air")})
 
 
 def block_catalogue(grid: Grid, ys: slice, xs: slice) -> SiteCatalogue:
@@ -192,8 +193,9 @@ def _block_values(grid, role, names, ys, xs, then) -> dict:
         # a block read from chunks of the whole plane held one cache per variable; a
         # zarr store opened with that variable alone: its 1-D coordinates (time,
         # time_bnds, y, x) are not read again for each block and variable (the block is
-        # cut by position)
-        with _open(grid.paths[role], role, only=name) as raw:
+        # cut by position), nor its metadata (those read when the grid was opened)
+        with _open(grid.paths[role], role, only=name,
+                   metadata=grid.zarr_metadata.get(role)) as raw:
             var = raw[name].isel({grid.dims[0]: ys, grid.dims[1]: xs})
             extra = [d for d in var.dims if d != "time" and d not in grid.dims]
             var = var.squeeze(extra, drop=True).transpose("time", *grid.dims)

@@ -14,7 +14,8 @@ import xarray as xr
 
 from .errors import suggest
 from .grid_read import (AIR_SPECIES, LAND_FIELDS, GridError, _air_times, _convert_met,
-                        _grid_dims, _height, _hourly, _lat_lon, _met_labels, _open)
+                        _grid_dims, _height, _hourly, _lat_lon, _met_labels, _open,
+                        zarr_metadata)
 from .grid_repeats import MetRepeats, check_met_repeats
 from .io.met import MET_VARIABLES
 from .io.samples import parse_reference_state
@@ -73,6 +74,10 @@ class Grid:
     origin: tuple = (0, 0)
     met_keep: np.ndarray | None = None
     met_dropped: int = 0
+    #: role -> the metadata of a zarr store, read once when the grid was opened
+    #: (:class:`workbench.io.zarrstore.StoreMetadata`): every later open of the store
+    #: (a block's variable, the scratch copy) reads chunks only.
+    zarr_metadata: dict = field(default_factory=dict, repr=False)
 
     @property
     def shape(self) -> tuple:
@@ -99,10 +104,12 @@ def open_grid(met, air, land_use) -> Grid:
     """
     paths = {"met": Path(met), "air": Path(air), "land_use": Path(land_use)}
     notes = []
-    ds = {k: _open(p, k, notes) for k, p in paths.items()}
+    meta = zarr_metadata(paths)              # a zarr store's metadata, read once
+    ds = {k: _open(p, k, notes, metadata=meta.get(k)) for k, p in paths.items()}
     try:
         grid = _check(paths, ds)
         grid.notes.extend(notes)
+        grid.zarr_metadata = meta
         return grid
     finally:
         for d in ds.values():

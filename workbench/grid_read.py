@@ -13,7 +13,7 @@ import xarray as xr
 from . import species as _species
 from .errors import InputError
 from .io.met import time_units
-from .io.zarrstore import is_zarr_path, open_zarr
+from .io.zarrstore import is_zarr_path, open_zarr, store_metadata
 from .units import convert_plain, parse_unit, ureg
 
 
@@ -31,14 +31,31 @@ class GridError(InputError):
     """A gridded input breaks the format of docs/data_formats.md."""
 
 
-def _open(path: Path, role: str, notes=None, only=None) -> xr.Dataset:
+def zarr_metadata(paths: dict) -> dict:
+    """role -> the metadata of each zarr store among `paths` (role -> path), each
+    document read once (:func:`workbench.io.zarrstore.store_metadata`), for
+    :func:`_open`'s `metadata`; a NetCDF file has none."""
+    out = {}
+    for role, path in paths.items():
+        if is_zarr_path(path):
+            try:
+                out[role] = store_metadata(path, role)
+            except InputError as e:
+                raise GridError(e.problem, file=e.file, column=e.column, value=e.value,
+                                expected=e.expected) from None
+    return out
+
+
+def _open(path: Path, role: str, notes=None, only=None, metadata=None) -> xr.Dataset:
     """The grid file (NetCDF) or store (zarr, :mod:`workbench.io.zarrstore`), lazily;
     `only`: a zarr store's variable of that name alone, without its coordinates (read
-    by position; a NetCDF file is opened whole)."""
+    by position; a NetCDF file is opened whole); `metadata`: a zarr store's metadata
+    as read when the grid was opened (:func:`zarr_metadata`; the grid's
+    ``zarr_metadata``): the store's metadata documents are not read again."""
     if is_zarr_path(path):
         try:
             ds, more = open_zarr(path, role, check_consolidated=notes is not None,
-                                 only=only)
+                                 only=only, metadata=metadata)
         except InputError as e:
             raise GridError(e.problem, file=e.file, column=e.column, value=e.value,
                             expected=e.expected) from None

@@ -227,13 +227,14 @@ def _copy_variable(raw, name, dims, layout, n_t, step, path, file):
     return str(file), dt.str
 
 
-def _copy_one(path, role, name, dims, layout, n_t, file):
+def _copy_one(path, role, name, dims, layout, n_t, file, metadata=None):
     """Copy variable `name` of the input at `path` into `file`, its time chunks one at a
-    time (in this process or as a task on a dask worker: it opens the input itself)."""
+    time (in this process or as a task on a dask worker: it opens the input itself;
+    `metadata`: a zarr store's, as read when the grid was opened)."""
     # the file opened anew for each variable: the HDF5 chunk cache of a variable (up to
     # 64 MB by default, useless here: each chunk is read once) is freed with it, so the
     # copy holds one variable's, not all
-    with _no_chunk_cache(path), _open(path, role) as raw:
+    with _no_chunk_cache(path), _open(path, role, only=name, metadata=metadata) as raw:
         step = chunk_shape(raw[name], dims)[0]
         return _copy_variable(raw, name, dims, layout, n_t, step, path, file)
 
@@ -322,7 +323,8 @@ def block_major(grid, layout, folder=None, say=None, client=None):
     try:
         for role in ROLES:
             path = grid.paths[role]
-            with _open(path, role) as raw:
+            meta = grid.zarr_metadata.get(role)
+            with _open(path, role, metadata=meta) as raw:
                 copy, more = plan(raw, names[role], grid.dims, grid.shape, block)
                 notes.extend(f"{path.name}: {n}" for n in more)
                 for n in more:
@@ -339,7 +341,8 @@ def block_major(grid, layout, folder=None, say=None, client=None):
             jobs = [(name, made / f"{role}.{name}.bin") for name in copy]
             if client is None:
                 for name, file in jobs:
-                    files[name] = _copy_one(path, role, name, grid.dims, flat, n_t, file)
+                    files[name] = _copy_one(path, role, name, grid.dims, flat, n_t, file,
+                                            meta)
             else:
                 # each variable's copy a task on the cluster, one at a time: a time chunk
                 # of the whole plane is decompressed on a worker, never in this process,
@@ -348,7 +351,7 @@ def block_major(grid, layout, folder=None, say=None, client=None):
                 # on each)
                 for name, file in jobs:
                     fut = client.submit(_copy_one, path, role, name, grid.dims, flat, n_t,
-                                        file, pure=False)
+                                        file, meta, pure=False)
                     try:
                         # a failed copy raises its error here; workers with too little
                         # memory for a chunk, one message (workbench.worker_memory)
