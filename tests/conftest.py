@@ -1,6 +1,8 @@
 """Fixtures shared by the test modules of tests/ itself."""
 import pytest
 
+from script_modules import docs_script
+
 
 @pytest.fixture(scope="session")
 def two_site_run(tmp_path_factory):
@@ -16,21 +18,10 @@ def two_site_run(tmp_path_factory):
     return out
 
 
-def _docs_script(name):
-    """The module of the script docs/<name>.py (the writers of the docs' demo numbers)."""
-    import importlib.util
-    from pathlib import Path
-    path = Path(__file__).resolve().parents[1] / "docs" / f"{name}.py"
-    spec = importlib.util.spec_from_file_location(name, path)
-    mod = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(mod)
-    return mod
-
-
 @pytest.fixture(scope="session")
 def uncertainty_figures():
     """docs/make_uncertainty_figures.py as a module."""
-    return _docs_script("make_uncertainty_figures")
+    return docs_script("make_uncertainty_figures")
 
 
 @pytest.fixture(scope="session")
@@ -38,17 +29,6 @@ def farm_span(uncertainty_figures, tmp_path_factory):
     """(study, result) of the demo's farm alone over 2016-2023 (the demo's span), every
     option at the demo scenario's value; read only."""
     return uncertainty_figures.farm_run(tmp_path_factory.mktemp("farm_span"))
-
-
-def _bench_script(name):
-    """The module of the script benchmarks/<name>.py (the measurements some docs quote)."""
-    import importlib.util
-    from pathlib import Path
-    path = Path(__file__).resolve().parents[1] / "benchmarks" / f"{name}.py"
-    spec = importlib.util.spec_from_file_location(f"bench_{name}", path)
-    mod = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(mod)
-    return mod
 
 
 @pytest.fixture(scope="session")

@@ -3,23 +3,20 @@
 Smoke tests on a small copy of the invented demo: a script that no longer runs would
 leave the report without a source.  Nothing here is timed or compared with a time.
 """
-import importlib.util
 import sys
 import warnings
 from pathlib import Path
 
 import pytest
 
+from script_modules import bench_script
 from ui.demo_subset import write_demo_subset
 
 ROOT = Path(__file__).resolve().parents[1]
 
 
 def _load(name):
-    spec = importlib.util.spec_from_file_location(f"bench_{name}", ROOT / "benchmarks" / f"{name}.py")
-    module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)
-    return module
+    return bench_script(name)
 
 
 @pytest.fixture(scope="module")

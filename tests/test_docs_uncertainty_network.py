@@ -25,7 +25,7 @@ import re
 import numpy as np
 import pytest
 
-from conftest import _bench_script
+from script_modules import bench_script as _bench_script
 from doc_sections import flat_section
 
 
