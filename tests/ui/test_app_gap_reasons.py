@@ -77,6 +77,43 @@ def test_critical_loads_view_names_the_gaps_behind_its_totals(gap_network):
     assert "S total (" not in text
 
 
+def test_critical_loads_changes_build_no_budget_table(gap_network, monkeypatch):
+    """The critical-loads view's gap line comes from the total rows' notes alone, as
+    the site explorer's (:func:`workbench.ui.summaries_budget.gap_lines`): no change
+    of a control builds budget.csv's whole table (before, the opening and each change
+    of site built it, twice here, for the few total rows of the year shown), and the
+    line is the one that table's total rows give."""
+    import workbench.tables as tables_mod
+    import workbench.tables_budget as tb
+    from workbench.ui.summaries_budget import gap_note
+    app = _loads_explorer(gap_network, "v02")
+    real = tb.budget_table
+    calls = []
+
+    def counted(ds, *a, **k):
+        calls.append(1)
+        return real(ds, *a, **k)
+    for mod in (tb, tables_mod):
+        monkeypatch.setattr(mod, "budget_table", counted)
+    shown = []
+    app.site_w.value = "v01"                     # a new site's yearly budget: drawn
+    shown.append(("v01", app.receptor_w.value, app.year_w.value, app.gap_note))
+    app.receptor_w.value = app.receptor_w.options[-1]
+    shown.append(("v01", app.receptor_w.value, app.year_w.value, app.gap_note))
+    app.cut_w["NHx"].value = 20
+    app.mode_w.value = next(v for _, v in app.mode_w.options if v != app.mode_w.value)
+    app.site_w.value = "v02"
+    shown.append(("v02", app.receptor_w.value, app.year_w.value, app.gap_note))
+    assert calls == []
+    monkeypatch.undo()
+    assert "NH3 blank in the samples of v01-F1" in shown[0][3]
+    assert "wind speed without a value in 1008 h" in shown[2][3]
+    # the words of budget.csv's whole table, as the line was written before
+    for site, rec, year, line in shown:
+        app.site_w.value = site
+        assert line == gap_note(real(app.result.years), site, rec, year)
+
+
 @pytest.fixture(scope="module")
 def explorer_v02(gap_network):
     from workbench.ui.apps import SiteExplorer

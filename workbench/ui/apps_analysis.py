@@ -293,7 +293,7 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         # why a total rests on a gap (met gaps, weeks without an air sample, a species
         # blank): budget.csv's note of the total row, also where its status reads
         # complete or filled; from the total rows' notes alone, as the site explorer's
-        # line (budget.csv's whole table was built for it on each site's first drawing)
+        # line (budget.csv's whole table was built for it at each change of site)
         self.gap_note = next(iter(gap_lines(self.result.years, sel["site"],
                                             sel["receptor"], [sel["period"]])), "")
         lower = lower_bound(self.result.years, *sel.values())        # S or N partial
