@@ -27,8 +27,7 @@ from .session import Session, output_dir
 from .palette import TEMPLATE
 from .summaries import (UNITS, change_line, component_rates, excluded_samples,
                         mean_totals, nh3_line, no_effect_text)
-from .summaries_budget import gap_note
-from ..tables_budget import total_note_rows      # the total rows' notes, no whole table
+from .summaries_budget import gap_lines     # the total rows' notes, no whole table
 
 #: Tabs of the site explorer below the budget: name -> what the figure needs.
 TABS = ("monthly fluxes", "deposition velocity", "resistances", "ion balance",
@@ -373,14 +372,11 @@ class SiteExplorer(SavedText, widgets.VBox):
 
     def _gaps_html(self):
         """The notes of budget.csv's S and N total rows of each year shown that have
-        one (:func:`~workbench.ui.summaries_budget.gap_note`), under the change line:
+        one (:func:`~workbench.ui.summaries_budget.gap_lines`), under the change line:
         its totals read ``complete`` or ``filled`` (no word in the line) while resting
         on met gaps or a species blank for weeks.  Empty where no total has a note."""
-        rows = total_note_rows(self.result.years)
-        rows = rows[rows["note"] != ""]            # most totals have none: no filtering
-        lines = [gap_note(rows, self.site, self.receptor_w.value, y)
-                 for y in dict.fromkeys(rows["period"].astype(str))]
-        return "".join(f"<div>{html.escape(x)}</div>" for x in lines if x)
+        lines = gap_lines(self.result.years, self.site, self.receptor_w.value)
+        return "".join(f"<div>{html.escape(x)}</div>" for x in lines)
 
     def _nh3_html(self):
         text = nh3_line(self.result.years, self.site, self.receptor_w.value, self.unit_w.value)

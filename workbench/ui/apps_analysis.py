@@ -35,6 +35,7 @@ from .apps_analysis_network import (SERIAL_MIN_YEARS, network_analysis_parts,  #
 from .apps_analysis_words import (LOWER_HEADING, PATH_COLUMNS, PATH_HEADINGS,  # noqa: F401
                                   _range_text, exceedance_words, gap_note, lower_bound,
                                   path_display, status_note)
+from .summaries_budget import gap_lines
 
 #: Draws of the Monte Carlo the explorer offers when the scenario asks for none [1]
 #: (the factors are the defaults of :class:`~workbench.analysis.uncertainty.UncertaintyOptions`).
@@ -255,14 +256,6 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         return exceedance_probability(pd.DataFrame([row]), self.total_draws(),
                                       [bool(lower)], [bool(lower_n)]).iloc[0].to_dict()
 
-    def _year_rows(self) -> pd.DataFrame:
-        """budget.csv's rows of the yearly budget of the site loaded (computed once a
-        result: :func:`workbench.tables.budget_table`)."""
-        if getattr(self, "_rows_of", (None,))[0] is not self.result:
-            from workbench.tables import budget_table
-            self._rows_of = (self.result, budget_table(self.result.years))
-        return self._rows_of[1]
-
     def loads(self) -> dict:
         site = self.session.study.catalogue()[self.site_w.value]
         return site.critical_loads_for(self.receptor_w.value)
@@ -299,8 +292,10 @@ class CriticalLoadsExplorer(SavedText, widgets.VBox):
         self.status_note = status_note(self.result.years, *sel.values())
         # why a total rests on a gap (met gaps, weeks without an air sample, a species
         # blank): budget.csv's note of the total row, also where its status reads
-        # complete or filled
-        self.gap_note = gap_note(self._year_rows(), *sel.values())
+        # complete or filled; from the total rows' notes alone, as the site explorer's
+        # line (budget.csv's whole table was built for it at each change of site)
+        self.gap_note = next(iter(gap_lines(self.result.years, sel["site"],
+                                            sel["receptor"], [sel["period"]])), "")
         lower = lower_bound(self.result.years, *sel.values())        # S or N partial
         lower_n = lower_bound(self.result.years, *sel.values(), elements=("N",))
         row = self.ranges(loads, sel, lower, lower_n)

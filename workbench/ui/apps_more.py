@@ -502,14 +502,14 @@ class NetworkOverview(SavedText, widgets.VBox):
     def _total_notes(self) -> pd.Series:
         """The note of each yearly total row of budget.csv (pathway ``total``,
         species ``all``), by site, receptor, period and element: the reasons the
-        budget already gives (:func:`workbench.tables.budget_table`), not derived
-        again."""
-        from workbench.tables import budget_table
-        rows = [budget_table(r.years) for r in self.results.values()]
+        budget already gives, not derived again; read from the total rows' notes
+        alone (:func:`workbench.tables_budget.total_note_rows`, as the apps' gap
+        lines), not from budget.csv's whole table of every site."""
+        from ..tables_budget import total_note_rows
+        rows = [total_note_rows(r.years) for r in self.results.values()]
         t = pd.concat(rows, ignore_index=True) if rows else pd.DataFrame()
-        if not len(t) or "note" not in t:
+        if not len(t):
             return pd.Series(dtype=object)
-        t = t[(t["pathway"] == "total") & (t["species"] == "all")]
         return pd.Series(t["note"].fillna("").astype(str).to_numpy(dtype=object),
                          index=pd.MultiIndex.from_arrays(
                              [t["site"].astype(str), t["receptor"].astype(str),

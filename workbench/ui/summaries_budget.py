@@ -10,6 +10,7 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
+from ..tables_budget import total_note_rows
 from ..units import element_deposition_in
 from .no_effect import component_reason
 from .summaries_change import _fmt
@@ -249,6 +250,23 @@ def gap_note(rows: pd.DataFrame, site, receptor, period) -> str:
              + t["note"].astype(str).str.strip())
     return (f"Gaps behind the totals of {period} (budget.csv notes): "
             + "; ".join(parts) + ".")
+
+
+def gap_lines(years: xr.Dataset, site, receptor, periods=None) -> list[str]:
+    """The gap line (:func:`gap_note`) of each period of `periods` (default: every
+    period of `years` whose S or N total has a note, in the budget's order) for `site`
+    and `receptor`, the periods without one left out.  The rows are budget.csv's total
+    rows with their notes (:func:`workbench.tables_budget.total_note_rows`: the same
+    notes and statuses as :func:`workbench.tables.budget_table`'s, without building
+    that table; about 0.3 ms a site's yearly budget, the table tens of ms).  What the
+    site explorer writes under its change line and the critical-loads explorer above
+    its deposition line, on every change (docs/performance.md, "The critical-loads
+    gap line from the total rows")."""
+    rows = total_note_rows(years)
+    rows = rows[rows["note"] != ""]            # most totals have none
+    if periods is None:
+        periods = dict.fromkeys(rows["period"].astype(str))
+    return [line for line in (gap_note(rows, site, receptor, p) for p in periods) if line]
 
 
 def _nh3_not_measured(ds, pick) -> bool:
