@@ -150,11 +150,19 @@ def bracket_line(years: xr.Dataset, derived, site, receptor, unit="kg/ha/yr",
                    "deposition, so 0 here",
             "some": "; in the years of the bulk collector caught by it: particles are "
                     "counted in the wet deposition there"}.get(caught, "")
-    ends = [_fmt(b[e]) if k is None else _fmt(b[e], k) for e in ("all_particle", "all_gas")]
-    return (f"{head}; gas/particle bracket {ends[0]} (each HNO3/pNO3 and "
-            f"NH3/pNH4 pair all as particle{why0}) to {ends[1]} (all as gas){part}{basis}: "
-            "filters split ammonium nitrate between the phases, and the gas deposits "
-            "faster.")
+    ends = {e: _fmt(b[e]) if k is None else _fmt(b[e], k) for e in ("all_particle", "all_gas")}
+    if b["all_gas"] >= b["all_particle"]:
+        return (f"{head}; gas/particle bracket {ends['all_particle']} (each HNO3/pNO3 and "
+                f"NH3/pNH4 pair all as particle{why0}) to {ends['all_gas']} (all as gas)"
+                f"{part}{basis}: filters split ammonium nitrate between the phases, and the "
+                "gas deposits faster.")
+    # a fixed gas velocity below the particle's (the what-ifs) turns the bracket round:
+    # low end first, and no "the gas deposits faster" beside numbers that say otherwise
+    return (f"{head}; gas/particle bracket {ends['all_gas']} (each HNO3/pNO3 and NH3/pNH4 "
+            f"pair all as gas) to {ends['all_particle']} (all as particle{why0}){part}"
+            f"{basis}: filters split ammonium nitrate between the phases, and with the "
+            "deposition velocities in force here (the fixed-velocity what-ifs) the gas "
+            "deposits slower than the particle.")
 
 
 #: How the budget's note of an all-particle bracket begins where the bulk collector

@@ -102,15 +102,26 @@ class OptionalFloat(widgets.HBox):
             return
         self._num.disabled = not self._box.value
         new = float(self._num.value) if self._box.value else None
+        if new is None:             # unchecked: the field shows what holds while unset
+            self._show_default()
         if new != self.value:
             self.value = new
+
+    def _show_default(self):
+        """The number field at :attr:`default` (a greyed 2.04 stood beside "unset: 1.02
+        (...)" after the box was unchecked, and a fixed Vd's field kept its last number
+        after "Reset to scenario", unlike the page as opened)."""
+        self._syncing = True
+        try:
+            self._num.value = self.default
+        finally:
+            self._syncing = False
 
     def _to_parts(self, change):
         v = change["new"]
         self._syncing = True
         try:
-            if v is not None:
-                self._num.value = v
+            self._num.value = v if v is not None else self.default
             self._box.value = v is not None
             self._num.disabled = v is None
         finally:
