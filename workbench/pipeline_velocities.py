@@ -157,7 +157,13 @@ class _StudyVelocities:
         fill = functools.partial(_stages.vd_fill, counts=self._fill_counts)
 
         def run_fill(deps, params):
-            return self._run("vd_fill", opts, deps, params, fn=fill)
+            if params["fixed"] is not None:
+                return self._run("vd_fill", opts, deps, params, fn=fill)
+            # the filling itself by the Vd's content (``vd_filled``): the species of
+            # equal Vd (one particle mode) hold one pair of arrays
+            shared = functools.partial(self._run, "vd_filled", opts, deps)
+            return self._run("vd_fill", opts, deps, params,
+                             fn=functools.partial(fill, filled=shared))
         out = {}
         for sp in dry_species:
             if sp in fixed_velocity:
