@@ -85,6 +85,10 @@ def test_fills_and_sums_of_equal_vd_are_held_once(ran):
         assert np.shares_memory(fills[a]["v_np"], fills[b]["v_np"]), (a, b)
         assert fills[b]["vd"].name == f"vd_{b}" and b in fills[b]["vd"].attrs["long_name"]
     assert len(_entries(ran.graph, "vd_filled")) < len(fills)
+    # the fills' masks of the filled hours: one buffer each content (before: the
+    # species with their gaps in the same hours held one each)
+    masks = _buffers_of_equal_content(f["vel"][1].data for f in fills.values())
+    assert len(masks) < len(fills) and all(len(b) == 1 for b in masks.values())
     sums = _entries(ran.graph, "hour_sums")
     # every cumulative effective Vd and every finite-hour mask of equal content: one
     # buffer (before: pSO4's and pNH4's sums apart, six copies of the masks)

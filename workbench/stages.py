@@ -349,13 +349,22 @@ def met_hour_slots(o, met):
 
 
 @stage("vd_filled", reads={"budget": ("min_slot_hours",)})
-def vd_filled(o, vd, slots=None, classes=None):
+def vd_filled(o, vd, slots=None, classes=None, masks=None):
     """The gap-filled hourly Vd of a model's Vd and its fill mask
     (:func:`workbench.dryflux.fill_diurnal`), keyed by the content of the Vd (not its
     name: ``vd_content``), so the species of equal Vd hold one pair of arrays.  `vd`,
-    `slots` and `classes` as for :func:`vd_fill`."""
-    return fill_diurnal(vd[0].load(), o.budget.min_slot_hours, slots,
-                        None if classes is None else classes[0])
+    `slots` and `classes` as for :func:`vd_fill`; `masks`: a callable giving the fill
+    mask of equal content held already (a study: the ``filled_mask`` stage: the Vd
+    with their gaps in the same hours hold one mask)."""
+    filled, was = fill_diurnal(vd[0].load(), o.budget.min_slot_hours, slots,
+                               None if classes is None else classes[0])
+    return filled, (was if masks is None else was.copy(deep=False, data=masks(was.data)))
+
+
+@stage("filled_mask", freeze=True)
+def filled_mask(o, mask):
+    """A filled Vd's mask of the filled hours, keyed by its content (:func:`vd_filled`)."""
+    return {"was": mask}
 
 
 def _as_filled(base, got):
