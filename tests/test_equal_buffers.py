@@ -72,6 +72,11 @@ def test_particles_of_one_mode_share_one_vd(ran):
             assert np.shares_memory(vel[f"vd_{a}"].values, vel[f"vd_{b}"].values), (a, b)
             assert b in vel[f"vd_{b}"].attrs["long_name"]     # its own attributes
         assert not np.shares_memory(vel["vd_pSO4"].values, vel["vd_pNO3"].values)
+    # a species of one mode of weight 1 (pNa: all coarse) holds its mode's Vd itself
+    modes = [m["vd"] for m in _entries(ran.graph, "particle_mode_vd")]
+    for vel in held:
+        assert any(np.shares_memory(vel["vd_pNa"].values, m) for m in modes)
+        assert not any(np.shares_memory(vel["vd_pNO3"].values, m) for m in modes)
 
 
 def test_fills_and_sums_of_equal_vd_are_held_once(ran):

@@ -36,6 +36,13 @@ def _same_weights(a, b) -> bool:
         for (ma, wa), (mb, wb) in zip(a, b))
 
 
+def _same_bits(a, b) -> bool:
+    """`a` and `b` are arrays of one shape and dtype, equal bit for bit."""
+    return (isinstance(a, np.ndarray) and isinstance(b, np.ndarray) and a.shape == b.shape
+            and a.dtype == b.dtype and np.ascontiguousarray(a).tobytes()
+            == np.ascontiguousarray(b).tobytes())
+
+
 def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: list,
             cache=None, met_surf: xr.Dataset | None = None,
             summaries: bool = False, particle_parts: dict | None = None,
@@ -346,6 +353,8 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                     for mode, w in ws:
                         total = total + w * by_mode[mode][0]
                         settle = settle + w * by_mode[mode][1]
+                    if len(ws) == 1 and _same_bits(total, by_mode[ws[0][0]][0]):
+                        total = by_mode[ws[0][0]][0]       # one mode of weight 1: its Vd
                     same = [ws, total, settle, None]
                     shared.append(same)
                 total, settle = same[1], same[2]
