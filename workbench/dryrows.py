@@ -63,22 +63,33 @@ def flux_inputs(o, air, axes, met, species, sites):
 
 
 @_graph.stage("hour_sums", freeze=True)
-def hour_sums(o, fill, side):
+def hour_sums(o, fill, side, finite=None):
     """The cumulative effective Vd of a filled Vd and the mask of its finite hours
     (:func:`workbench.dryflux_sums.effective_sums`): keyed by the fill and the air
     side's ``(quantity, diurnal weight, air density)`` by their content (`side`, see
     :func:`_member_rows`), so the species that deposit with the same Vd the same way
-    share one (a bracket member with the other member's Vd)."""
+    share one (a bracket member with the other member's Vd).  `finite`: a callable
+    giving the mask of the ``hour_counts`` stage of equal content (the sums of the
+    species whose Vd have gaps in the same hours hold one mask); default: its own."""
     quantity, weight, n_air = side
-    cs, finite = effective_sums(fill["v_np"], quantity, n_air, weight)
-    return {"cs": cs, "finite": finite}
+    cs, mask = effective_sums(fill["v_np"], quantity, n_air, weight)
+    if mask is not None and finite is not None:
+        mask = finite(mask)
+    return {"cs": cs, "finite": mask}
 
 
 @_graph.stage("hour_counts", freeze=True)
 def hour_counts(o, mask):
-    """Cumulative count of the finite hours of an effective Vd (keyed by the mask's
-    content: the species whose Vd have gaps in the same hours share one)."""
-    return {"cn": _count_cumulative(mask)}
+    """The mask of the finite hours of an effective Vd and their cumulative count,
+    keyed by the mask's content: the species whose Vd have gaps in the same hours
+    share one of each."""
+    return {"finite": mask, "cn": _count_cumulative(mask)}
+
+
+def _counts_node(run, mask):
+    """The ``hour_counts`` Node of a finite-hour mask (keyed by its content)."""
+    return run("hour_counts", deps={"mask": _graph.Node(
+        f"hour_sums:{_graph.content_digest([mask])}:finite", mask)})
 
 
 @_graph.stage("species_rows")
@@ -134,11 +145,14 @@ def _member_rows(run, air_node, sp, fill, axes, met, times, sites):
         "flux_inputs:" + _graph.content_digest(
             [np.asarray(a) for a in side[1:] if a is not None], quantity,
             *(a is None for a in side[1:])) + ":effective", side)
-    sums = run("hour_sums", deps={"fill": fill, "side": side})
+    if "content" in fill.value:       # the fills of equal Vd on the same sites, one key
+        fill = _graph.Node(fill.value["content"], fill.value)
+    sums = run("hour_sums", deps={"fill": fill, "side": side},
+               fn=functools.partial(hour_sums, finite=lambda m: _counts_node(
+                   run, m).value["finite"]))
     mask = sums.value["finite"]
-    counts = _graph.input_node("none", "", None) if mask is None else run(
-        "hour_counts", deps={"mask": _graph.Node(        # keyed by its content
-            f"hour_sums:{_graph.content_digest([mask])}:finite", mask)})
+    counts = (_graph.input_node("none", "", None) if mask is None
+              else _counts_node(run, mask))
     return inputs, run("species_rows", deps={"inputs": inputs, "fill": fill, "times": times,
                                              "sums": sums, "counts": counts})
 

@@ -157,7 +157,14 @@ class _StudyVelocities:
         fill = functools.partial(_stages.vd_fill, counts=self._fill_counts)
 
         def run_fill(deps, params):
-            return self._run("vd_fill", opts, deps, params, fn=fill)
+            if params["fixed"] is not None:
+                return self._run("vd_fill", opts, deps, params, fn=fill)
+            # the filling itself by the Vd's content (``vd_filled``): the species of
+            # equal Vd (one particle mode) hold one pair of arrays
+            filled = functools.partial(_stages.vd_filled, masks=self._filled_mask)
+            shared = functools.partial(self._run, "vd_filled", opts, deps, fn=filled)
+            return self._run("vd_fill", opts, deps, params,
+                             fn=functools.partial(fill, filled=shared))
         out = {}
         for sp in dry_species:
             if sp in fixed_velocity:
@@ -176,6 +183,12 @@ class _StudyVelocities:
                     out[name] = run_fill({"vd": content(var), **fill_deps},
                                          {"name": name, "fixed": None, "sites": ids})
         return out
+
+    def _filled_mask(self, was):
+        """A fill's mask of the filled hours as the ``filled_mask`` stage holds it (keyed
+        by its content: the fills with their gaps in the same hours hold one)."""
+        node = Node("vd_filled:" + content_digest([was]) + ":was", was)
+        return self._run("filled_mask", deps={"mask": node}).value["was"]
 
     def _fill_counts(self, valid, was):
         """(c_valid, c_fill): the cumulative counts of a fill's (modelled, filled) masks,

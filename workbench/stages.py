@@ -21,7 +21,7 @@ from .budget_assembly import budget_layout as _budget_layout, wet_columns, wet_p
 from .period_notes import median_hours, one_sample_notes
 from .drycomponents import NH3_EXCHANGE, fill_arrays, prepare_velocities
 from .dryflux import _count_cumulative, fill_diurnal, hour_slots
-from .graph import declare, stage, variables_digest
+from .graph import content_digest, declare, stage, variables_digest
 from .wet.options import WetOptions
 from .pairfill import fill_value
 
@@ -260,12 +260,21 @@ def wanted_pairs(o, sites, receptors, **parts):
     for w in where:
         covered[w["site"][:, None], w["receptor"][None, :]] = True
     out = {}
+    laid = []          # (the parts' arrays, the layout made of them): one layout each
     for name, v in first.data_vars.items():
         v = v.variable
         if not _kept(name, v.dims):
             continue
         if "site" not in v.dims:
             out[name] = v
+            continue
+        sources = [p.variables[name].data for p in parts]
+        done = next((a for srcs, a, dims in laid if dims == v.dims
+                     and all(x is y for x, y in zip(srcs, sources))), None)
+        if done is not None:     # variables of one array in every part (particle Vd of
+            out[name] = xr.Variable(v.dims, done, _site_attrs(   # equal modes)
+                [p.variables[name].attrs for p in parts], [p["site"].values for p in parts],
+                sites))
             continue
         shape = tuple(sizes.get(d, v.shape[i]) for i, d in enumerate(v.dims))
         a = np.empty(shape, dtype=v.dtype)          # every element written once below
@@ -281,6 +290,7 @@ def wanted_pairs(o, sites, receptors, **parts):
             else:
                 view[w["site"]] = got
         a.flags.writeable = False                 # shared with the cache, as Vd's are
+        laid.append((sources, a, v.dims))
         out[name] = xr.Variable(v.dims, a, _site_attrs([p.variables[name].attrs for p in parts],
                                                        [p["site"].values for p in parts], sites))
     coords = {"site": list(sites), "receptor": list(receptors)}
@@ -324,9 +334,11 @@ def met_with_air(met, air, surfaces, dry_options):
 @stage("vd_content")
 def vd_content(o, velocities, variable):
     """Digest of one variable of the velocities (and the scheme named with it), so that
-    an option that leaves a species' Vd as it was reuses everything built on it."""
-    return variables_digest([(variable, velocities.variables[variable])],
-                            velocities.attrs.get("gas_scheme", "model"))
+    an option that leaves a species' Vd as it was reuses everything built on it.  The
+    variable's name is not in it: the species of equal Vd (pSO4 and pNH4 of one particle
+    mode) share the ``vd_filled`` stage."""
+    return variables_digest([("vd", velocities.variables[variable])],   # not its name:
+                            velocities.attrs.get("gas_scheme", "model"))  # equal Vd, one key
 
 
 @stage("hour_slots")
@@ -336,8 +348,36 @@ def met_hour_slots(o, met):
     return hour_slots(met["time"].values)
 
 
+@stage("vd_filled", reads={"budget": ("min_slot_hours",)})
+def vd_filled(o, vd, slots=None, classes=None, masks=None):
+    """The gap-filled hourly Vd of a model's Vd and its fill mask
+    (:func:`workbench.dryflux.fill_diurnal`), keyed by the content of the Vd (not its
+    name: ``vd_content``), so the species of equal Vd hold one pair of arrays.  `vd`,
+    `slots` and `classes` as for :func:`vd_fill`; `masks`: a callable giving the fill
+    mask of equal content held already (a study: the ``filled_mask`` stage: the Vd
+    with their gaps in the same hours hold one mask)."""
+    filled, was = fill_diurnal(vd[0].load(), o.budget.min_slot_hours, slots,
+                               None if classes is None else classes[0])
+    return filled, (was if masks is None else was.copy(deep=False, data=masks(was.data)))
+
+
+@stage("filled_mask", freeze=True)
+def filled_mask(o, mask):
+    """A filled Vd's mask of the filled hours, keyed by its content (:func:`vd_filled`)."""
+    return {"was": mask}
+
+
+def _as_filled(base, got):
+    """`got` (filled, was) of :func:`vd_filled` on the DataArray `base` (its name, attrs
+    and coordinates, as :func:`workbench.dryflux.fill_diurnal` of `base` gives them),
+    their arrays not copied."""
+    filled = base.copy(deep=False, data=got[0].data)
+    filled.attrs = dict(base.attrs)
+    return filled, base.copy(deep=False, data=got[1].data)
+
+
 @stage("vd_fill", reads={"budget": ("min_slot_hours",)}, counts_as="dry")
-def vd_fill(o, vd, name, fixed, sites, slots=None, classes=None, counts=None):
+def vd_fill(o, vd, name, fixed, sites, slots=None, classes=None, counts=None, filled=None):
     """Gap-filled hourly Vd of a species (its mean diurnal cycle), or a fixed Vd.
 
     `vd` is ``(DataArray, scheme)`` of the model or, for a fixed Vd, the
@@ -345,7 +385,10 @@ def vd_fill(o, vd, name, fixed, sites, slots=None, classes=None, counts=None):
     `classes` ``(DataArray, scheme)`` of ``land_use_in_force`` when a site's own surface
     changed class inside the record: each hour is filled from its class's hours only.
     `counts`: how the cumulative hour counts are made (:func:`fill_arrays`; a study
-    takes them from the ``fill_counts`` stage).
+    takes them from the ``fill_counts`` stage).  `filled`: a callable giving the
+    (filled, was) of the model's Vd (a study: the ``vd_filled`` stage, shared by the
+    species of equal Vd); default: filled here.  Filled so, the result has a
+    ``content`` key: the filled Vd's on `sites` (:func:`workbench.dryrows.hour_sums`).
     """
     cls = None if classes is None else classes[0]
     min_slot = o.budget.min_slot_hours
@@ -356,6 +399,16 @@ def vd_fill(o, vd, name, fixed, sites, slots=None, classes=None, counts=None):
                                 coords={"site": list(ids), "receptor": list(receptors),
                                         "time": times})
         got = prepare_velocities(None, [name], {name: fixed}, min_slot, template, slots)[name]
+    elif filled is not None:
+        base = vd[0] if name in NH3_EXCHANGE else vd[0].rename(f"vd_{name}")
+        node = filled()
+        got = (*_as_filled(base, node.value),
+               "nh3 compensation point" if name in NH3_EXCHANGE else vd[1])
+        out = fill_arrays(*got, sites, counts=counts)
+        # what the rows' sums read of it (``v_np``), by content: the filled Vd's on
+        # these sites (:func:`workbench.dryrows.hour_sums`)
+        out["content"] = f"{node.key}:sites:{content_digest([np.asarray(sites, object)])}"
+        return out
     elif name in NH3_EXCHANGE:
         filled, was = fill_diurnal(vd[0].load(), min_slot, slots, cls)
         got = (filled, was, "nh3 compensation point")

@@ -28,6 +28,21 @@ from .core_steps import (AIR_DERIVED, CLOUD_SOURCE, METHOD, NH3_BIDIRECTIONAL_NO
 from .options import DryOptions
 
 
+def _same_weights(a, b) -> bool:
+    """Two particle species' (mode, mass weight) lists are equal: the same modes in the
+    same order with equal weights (their Vd are then equal bit for bit)."""
+    return len(a) == len(b) and all(
+        ma == mb and np.shape(wa) == np.shape(wb) and np.array_equal(wa, wb)
+        for (ma, wa), (mb, wb) in zip(a, b))
+
+
+def _same_bits(a, b) -> bool:
+    """`a` and `b` are arrays of one shape and dtype, equal bit for bit."""
+    return (isinstance(a, np.ndarray) and isinstance(b, np.ndarray) and a.shape == b.shape
+            and a.dtype == b.dtype and np.ascontiguousarray(a).tobytes()
+            == np.ascontiguousarray(b).tobytes())
+
+
 def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: list,
             cache=None, met_surf: xr.Dataset | None = None,
             summaries: bool = False, particle_parts: dict | None = None,
@@ -326,22 +341,36 @@ def _hourly(block: xr.Dataset, surf: xr.Dataset, opt: DryOptions, receptors: lis
                                     {"vd": new[mode][0], "vs": new[mode][1]})
                     held[mode] = new[mode]
             by_mode = held
+            # species of equal mode weights (one mode each, pSO4 and pNH4 by default)
+            # share one Vd: computed once, its array referenced by each variable
+            shared = []      # [(mode, weight) list, total, settle, Variable or None]
             for sp in opt.particles:
                 weights, coarse, source = parts[sp]
-                total = settle = 0.0
-                for mode, w in weights:
-                    w = _fractions.broadcast_weight(w)
-                    total = total + w * by_mode[mode][0]
-                    settle = settle + w * by_mode[mode][1]
+                ws = [(mode, _fractions.broadcast_weight(w)) for mode, w in weights]
+                same = next((e for e in shared if _same_weights(e[0], ws)), None)
+                if same is None:
+                    total = settle = 0.0
+                    for mode, w in ws:
+                        total = total + w * by_mode[mode][0]
+                        settle = settle + w * by_mode[mode][1]
+                    if len(ws) == 1 and _same_bits(total, by_mode[ws[0][0]][0]):
+                        total = by_mode[ws[0][0]][0]       # one mode of weight 1: its Vd
+                    same = [ws, total, settle, None]
+                    shared.append(same)
+                total, settle = same[1], same[2]
                 # Zhang et al. 2001, Eq. 1 with Rs > 0: v_s <= Vd <= v_s + 1/Ra, or a defect
                 _limit.check_aerodynamic_limit(
                     np.broadcast_to(total, shape3), settle, ra, sp, block["site"].values,
                     receptors, block["time"].values)
                 if keep(f"vd_{sp}"):
-                    out[f"vd_{sp}"] = srt(total, "m s-1",
-                                          f"mass-weighted dry deposition velocity of {sp} "
-                                          "(Zhang et al. 2001)", **_blocks.particle_attrs(
-                                              (particle_parts or parts)[sp]))
+                    attrs = {"units": "m s-1", "long_name": "mass-weighted dry deposition "
+                             f"velocity of {sp} (Zhang et al. 2001)",
+                             **_blocks.particle_attrs((particle_parts or parts)[sp])}
+                    if same[3] is None:
+                        same[3] = srt(total, **attrs)
+                        out[f"vd_{sp}"] = same[3]
+                    else:                      # the same array, this species' attributes
+                        out[f"vd_{sp}"] = xr.Variable(same[3].dims, same[3].data, attrs)
 
     # --- assemble -----------------------------------------------------------------------------
     def obukhov():
