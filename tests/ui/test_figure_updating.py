@@ -146,7 +146,8 @@ def test_an_edit_the_page_made_while_an_update_waits_is_waited_for_too(comms, mo
     wait; an edit the page made itself (a click on the legend, which plotly's Python side
     sends back to the page as a new trace edit) had none.  On a page that drops the
     figure's messages the figure then read "updating the figure…" for ever and kept its
-    old drawing.  Now such an edit is waited for as an update sent."""
+    old drawing (chromium, the figures' messages dropped: still dimmed 90 s after a
+    click on the budget's legend).  Now such an edit is waited for as an update sent."""
     import workbench.ui.figure_open as figure_open
     monkeypatch.setattr(figure_open, "ANSWER_S", 0.05)
     w, box = _boxed("a", [1.0, 2.0])
