@@ -129,3 +129,85 @@ def test_a_figure_shown_alone_is_left_as_it_is(comms):
 
     asyncio.run(change())
     assert alone.updating            # no box to mark; the flag still says so
+
+
+def _legend_click(w, comm=None):
+    """The message a view sends when the reader clicks a legend entry (plotly's restyle
+    from the page, which its Python side sends back as a new trace edit)."""
+    return {"content": {"comm_id": (comm or w.comm).comm_id, "data": {
+        "method": "update", "state": {"_js2py_restyle": {
+            "style_data": {"visible": ["legendonly"]}, "style_traces": [0],
+            "source_view_id": "view-1"}}, "buffer_paths": []}}, "buffers": []}
+
+
+def test_an_edit_the_page_made_while_an_update_waits_is_waited_for_too(comms, monkeypatch):
+    """Defect (found reading the code): the wait after an update (ANSWER_S) opened the
+    figure anew only when no later trace edit had been sent, leaving that edit to its own
+    wait; an edit the page made itself (a click on the legend, which plotly's Python side
+    sends back to the page as a new trace edit) had none.  On a page that drops the
+    figure's messages the figure then read "updating the figure…" for ever and kept its
+    old drawing (chromium, the figures' messages dropped: still dimmed 90 s after a
+    click on the budget's legend).  Now such an edit is waited for as an update sent."""
+    import workbench.ui.figure_open as figure_open
+    monkeypatch.setattr(figure_open, "ANSWER_S", 0.05)
+    w, box = _boxed("a", [1.0, 2.0])
+    first = w.comm
+    seen = []
+
+    async def change():
+        refresh(w, _bars([5.0, 6.0], "b"))      # the page drops it (never answers)
+        sent = w._last_trace_edit_id
+        w._handle_msg(_legend_click(w))          # the reader clicks the old drawing
+        assert w._last_trace_edit_id == sent + 1
+        await asyncio.sleep(0.3)
+        seen.append(w.comm is not first)         # opened anew
+        w._handle_msg(_drawn_message(w))         # the new view has drawn
+        seen.append(_classes(box))
+
+    asyncio.run(change())
+    assert seen == [True, []]
+    assert not w.updating
+
+
+def test_a_legend_click_on_a_figure_drawn_marks_nothing(comms):
+    """A page that drew every update: a click on its legend does not dim the figure."""
+    w, box = _boxed("a", [1.0, 2.0])
+
+    async def click():
+        refresh(w, _bars([5.0, 6.0], "b"))
+        w._handle_msg(_drawn_message(w))
+        w._handle_msg(_legend_click(w))
+
+    asyncio.run(click())
+    assert _classes(box) == [] and not w.updating
+
+
+def test_a_click_on_the_old_drawing_beside_a_figure_opened_anew_is_waited_for(
+        comms, monkeypatch):
+    """Opened anew, the old drawing stays beside the new one until that has drawn; a
+    click on its legend sends a new trace edit to the new model.  When the new view drew
+    its opening state only (its later messages dropped), the figure is opened anew again
+    instead of reading "updating the figure…" for ever."""
+    import workbench.ui.figure_open as figure_open
+    monkeypatch.setattr(figure_open, "ANSWER_S", 0.05)
+    w, box = _boxed("a", [1.0, 2.0])
+    seen = []
+
+    async def change():
+        refresh(w, _bars([5.0, 6.0], "b"))      # unanswered: opened anew
+        old = w.comm
+        await asyncio.sleep(0.2)
+        new = w.comm
+        assert new is not old
+        opening = _drawn_message(w)              # what the new view answers when drawn
+        w._handle_msg(_legend_click(w, old))     # the reader clicks the old drawing
+        w._handle_msg(opening)                   # the new view drew its opening state
+        seen.append(_classes(box))
+        await asyncio.sleep(0.3)
+        seen.append(w.comm is not new)           # opened anew again
+        w._handle_msg(_drawn_message(w))
+        seen.append(_classes(box))
+
+    asyncio.run(change())
+    assert seen == [[UPDATING_CLASS], True, []]
+    assert not w.updating

@@ -198,9 +198,19 @@ class OpenedWhole(go.FigureWidget):
         pending.close()
 
     def _handle_msg(self, msg):
+        sent_before = self._last_trace_edit_id
         super()._handle_msg(msg)
         if self.comm is None:
             return
+        if self._last_trace_edit_id != sent_before and \
+                getattr(self, "_wb_awaited", None) is not None:
+            # an edit a page made itself (a click on the legend), which plotly sends
+            # back as a new trace edit, while an update waits for its answer: waited for
+            # as an update sent.  Defect: the update's wait left it to a wait of its own
+            # (reopen_unless_answered) that nothing made, and a page that drops the
+            # figure's messages kept the old drawing, marked updating, for ever.
+            self._wb_awaited = self._last_trace_edit_id
+            self.await_answer(self._last_trace_edit_id)
         content = msg.get("content", {})
         state = content.get("data", {}).get("state", {})
         if content.get("comm_id") != self.comm.comm_id:
