@@ -52,10 +52,9 @@ def test_network_totals_name_the_gaps_of_the_year(overview):
     assert t.loc[("v01", "2016"), "S note"] == ""
 
 
-def test_network_totals_build_no_budget_table(overview, monkeypatch):
-    """The notes of the totals table come from the total rows' notes alone (before:
-    budget.csv's whole table of every site, 132 of the 173 ms of CPU of the demo's
-    table); the same notes as that table's total rows."""
+def _count_budget_tables(monkeypatch) -> list:
+    """A list that gets one item per budget table built (``budget_table`` counted where
+    the apps import it from)."""
     import workbench.tables as tables_mod
     import workbench.tables_budget as tb
     real = tb.budget_table
@@ -66,10 +65,20 @@ def test_network_totals_build_no_budget_table(overview, monkeypatch):
         return real(ds, *a, **k)
     for mod in (tb, tables_mod):
         monkeypatch.setattr(mod, "budget_table", counted)
+    return calls
+
+
+def test_network_totals_build_no_budget_table(overview, monkeypatch):
+    """The notes of the totals table come from the total rows' notes alone (before:
+    budget.csv's whole table of every site, 132 of the 173 ms of CPU of the demo's
+    table); the same notes as that table's total rows."""
+    calls = _count_budget_tables(monkeypatch)
     t = overview.totals().droplevel("receptor")
     assert calls == []
     monkeypatch.undo()
     import pandas as pd
+
+    from workbench.tables_budget import budget_table as real
     full = pd.concat([real(r.years) for r in overview.results.values()])
     full = full[(full["pathway"] == "total") & (full["species"] == "all")]
     own = {(s.id, s.land_use) for s in overview.session.study.inputs.catalogue}
@@ -111,18 +120,9 @@ def test_critical_loads_changes_build_no_budget_table(gap_network, monkeypatch):
     of a control builds budget.csv's whole table (before, the opening and each change
     of site built it, twice here, for the few total rows of the year shown), and the
     line is the one that table's total rows give."""
-    import workbench.tables as tables_mod
-    import workbench.tables_budget as tb
     from workbench.ui.summaries_budget import gap_note
     app = _loads_explorer(gap_network, "v02")
-    real = tb.budget_table
-    calls = []
-
-    def counted(ds, *a, **k):
-        calls.append(1)
-        return real(ds, *a, **k)
-    for mod in (tb, tables_mod):
-        monkeypatch.setattr(mod, "budget_table", counted)
+    calls = _count_budget_tables(monkeypatch)
     shown = []
     app.site_w.value = "v01"                     # a new site's yearly budget: drawn
     shown.append(("v01", app.receptor_w.value, app.year_w.value, app.gap_note))
@@ -134,6 +134,7 @@ def test_critical_loads_changes_build_no_budget_table(gap_network, monkeypatch):
     shown.append(("v02", app.receptor_w.value, app.year_w.value, app.gap_note))
     assert calls == []
     monkeypatch.undo()
+    from workbench.tables_budget import budget_table as real
     assert "NH3 blank in the samples of v01-F1" in shown[0][3]
     assert "wind speed without a value in 1008 h" in shown[2][3]
     # the words of budget.csv's whole table, as the line was written before
