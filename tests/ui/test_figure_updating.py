@@ -248,3 +248,25 @@ def test_nan_and_none_read_alike_and_a_filled_gap_is_sent(comms):
     assert refresh(w, _with_gaps([1.0, None, 3.0]))["restyled"] == 0
     out = refresh(w, _with_gaps([1.0, 2.0, 3.0]))
     assert out["restyled"] == 1 and list(w.data[0].y) == [1.0, 2.0, 3.0]
+
+
+def test_one_ranking_updating_leaves_the_other_undimmed(comms, two_sites_2021):
+    """Defect: the network overview's S and N rankings shared one box, and the class
+    dims every figure of the box it is on (UPDATING_CSS): either updating dimmed both.
+    Each is now in a box of its own, the two boxes side by side as the figures were."""
+    from workbench.ui.apps import NetworkOverview
+    from workbench.ui.figure_open import _boxes_holding
+    from workbench.ui.session import Session
+    net = NetworkOverview(Session.open(two_sites_2021))
+    s, n = net.figs["S"], net.figs["N"]
+    s.mark_updating()
+    assert all(UPDATING_CLASS in _classes(b) for b in _boxes_holding(s))
+    assert _boxes_holding(n) and all(UPDATING_CLASS not in _classes(b)
+                                     for b in _boxes_holding(n))
+    s.settle()
+    assert all(UPDATING_CLASS not in _classes(b) for b in _boxes_holding(s))
+    # side by side where the width allows, as before: one wrapping row of the two boxes
+    row = next(c for c in net.children if isinstance(c, widgets.HBox)
+               and any(getattr(b, "children", ()) == (s,) for b in c.children))
+    assert [b.children for b in row.children] == [(s,), (n,)]
+    assert row.layout.flex_flow == "row wrap"
