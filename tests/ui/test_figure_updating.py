@@ -11,6 +11,8 @@ figures while it computes.  tests/test_browser_figure_updating.py checks the pag
 """
 import asyncio
 
+import ipywidgets as widgets
+import numpy as np
 import plotly.graph_objects as go
 import pytest
 
@@ -211,3 +213,60 @@ def test_a_click_on_the_old_drawing_beside_a_figure_opened_anew_is_waited_for(
     asyncio.run(change())
     assert seen == [[UPDATING_CLASS], True, []]
     assert not w.updating
+
+
+def _with_gaps(y, title="a"):
+    return go.Figure(go.Scatter(x=[1.0, 2.0, 3.0], y=y), layout={"title": {"text": title}})
+
+
+@pytest.mark.parametrize("y", [lambda: [1.0, float("nan"), 3.0],     # a new NaN each time
+                               lambda: np.array([1.0, np.nan, 3.0])], ids=["list", "array"])
+def test_an_unchanged_figure_with_nan_sends_nothing(comms, y):
+    """Defect: NaN compared unequal to itself, so a figure with NaN values resent those
+    arrays at every refresh: a needless update message, and the figure marked updating
+    until the page answered."""
+    w = figure_widget(_with_gaps([1.0, 2.0, 3.0]))
+    box = widgets.VBox([w])
+
+    async def twice():
+        refresh(w, _with_gaps(y()))
+        w._handle_msg(_drawn_message(w))         # the page drew the first one
+        edit = w._last_trace_edit_id
+        out = refresh(w, _with_gaps(y()))        # the same figure again
+        return out, edit
+
+    out, edit = asyncio.run(twice())
+    assert out == {"restyled": 0, "relayout": 0, "replaced": False}
+    assert w._last_trace_edit_id == edit         # no update message sent
+    assert _classes(box) == [] and not w.updating
+
+
+def test_nan_and_none_read_alike_and_a_filled_gap_is_sent(comms):
+    """plotly sends NaN and None both as null: one for the other is no change; a number
+    where NaN was is one."""
+    w = figure_widget(_with_gaps([1.0, float("nan"), 3.0]))
+    assert refresh(w, _with_gaps([1.0, None, 3.0]))["restyled"] == 0
+    out = refresh(w, _with_gaps([1.0, 2.0, 3.0]))
+    assert out["restyled"] == 1 and list(w.data[0].y) == [1.0, 2.0, 3.0]
+
+
+def test_one_ranking_updating_leaves_the_other_undimmed(comms, two_sites_2021):
+    """Defect: the network overview's S and N rankings shared one box, and the class
+    dims every figure of the box it is on (UPDATING_CSS): either updating dimmed both.
+    Each is now in a box of its own, the two boxes side by side as the figures were."""
+    from workbench.ui.apps import NetworkOverview
+    from workbench.ui.figure_open import _boxes_holding
+    from workbench.ui.session import Session
+    net = NetworkOverview(Session.open(two_sites_2021))
+    s, n = net.figs["S"], net.figs["N"]
+    s.mark_updating()
+    assert all(UPDATING_CLASS in _classes(b) for b in _boxes_holding(s))
+    assert _boxes_holding(n) and all(UPDATING_CLASS not in _classes(b)
+                                     for b in _boxes_holding(n))
+    s.settle()
+    assert all(UPDATING_CLASS not in _classes(b) for b in _boxes_holding(s))
+    # side by side where the width allows, as before: one wrapping row of the two boxes
+    row = next(c for c in net.children if isinstance(c, widgets.HBox)
+               and any(getattr(b, "children", ()) == (s,) for b in c.children))
+    assert [b.children for b in row.children] == [(s,), (n,)]
+    assert row.layout.flex_flow == "row wrap"

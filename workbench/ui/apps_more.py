@@ -399,8 +399,13 @@ class NetworkOverview(SavedText, widgets.VBox):
         self.unit_w.observe(lambda c: self._draw_analysis(), "value")
         self.serial_w.observe(lambda c: self._draw_analysis(), "value")
         # the two rankings side by side where the window is wide enough, else one
-        # under the other (a plot drawn in a notebook does not know its box's width)
-        rankings = widgets.HBox([self.figs["S"], self.figs["N"]],
+        # under the other (a plot drawn in a notebook does not know its box's width);
+        # each in a box of its own: a figure updating dims the figures of its box
+        # (figure_open.UPDATING_CSS), and with both in one box either dimmed both; a
+        # box never narrower than its figure (as the figure was: the row scrolls)
+        rankings = widgets.HBox([widgets.VBox([self.figs[el]],
+                                              layout=widgets.Layout(flex="0 0 auto"))
+                                 for el in ("S", "N")],
                                 layout=widgets.Layout(width="100%", flex_flow="row wrap"))
         from .inputs_box import input_rows_box           # what became of the input rows
         super().__init__([widgets.HTML("<h3>Network overview</h3>"), caution_box(),

@@ -6,6 +6,7 @@ Moved from :mod:`workbench.ui.controls` (which re-exports every name here).
 from __future__ import annotations
 
 import numpy as np
+import pandas as pd
 import plotly.graph_objects as go
 from plotly.basedatatypes import Undefined
 
@@ -27,15 +28,51 @@ def _flatten(d: dict, prefix: str = "", out: dict | None = None) -> dict:
     return out
 
 
+def _missing(v) -> bool:
+    """None or a NaN number: what plotly sends as JSON ``null``."""
+    return v is None or (isinstance(v, (float, np.floating)) and bool(np.isnan(v)))
+
+
+def _arrays_equal(a, b) -> bool:
+    """Two arrays (numpy arrays, lists) equal by value, a missing value (None, NaN,
+    NaT) equal to a missing one in the same place.  Lists are compared as objects
+    (``"1"`` is not ``1``), never coerced to one dtype."""
+    try:
+        x = a if isinstance(a, np.ndarray) else np.asarray(a, dtype=object)
+        y = b if isinstance(b, np.ndarray) else np.asarray(b, dtype=object)
+        if x.shape != y.shape:
+            return False
+        gap_x, gap_y = pd.isna(x), pd.isna(y)
+        if not np.array_equal(gap_x, gap_y):
+            return False
+        return bool(np.array_equal(x[~gap_x], y[~gap_y]))
+    except (TypeError, ValueError):
+        return False
+
+
 def _equal(a, b) -> bool:
-    """Plain-JSON equality (numpy arrays compared by value)."""
+    """Equality of two values of plotly JSON as a page draws them: numpy arrays and
+    lists by value, None and NaN alike (plotly sends both as ``null``), so NaN equals
+    NaN in the same place.
+
+    Defect: NaN compared unequal to itself, and a figure with NaN values resent those
+    arrays at every refresh (a needless update message, and a figure marked updating
+    until the page answered).
+
+    >>> _equal([1.0, float("nan")], np.array([1.0, np.nan]))
+    True
+    >>> _equal([1.0, None], [1.0, float("nan")]), _equal(float("nan"), None)
+    (True, True)
+    >>> _equal([1.0, float("nan")], [1.0, 2.0]), _equal(["1"], [1])
+    (False, False)
+    """
     if a is b:
         return True
-    if isinstance(a, np.ndarray) or isinstance(b, np.ndarray):
-        try:
-            return np.array_equal(np.asarray(a), np.asarray(b))
-        except (TypeError, ValueError):
-            return False
+    if _missing(a) or _missing(b):
+        return _missing(a) and _missing(b)
+    if isinstance(a, np.ndarray) or isinstance(b, np.ndarray) or (
+            isinstance(a, (list, tuple)) and isinstance(b, (list, tuple))):
+        return _arrays_equal(a, b)
     try:
         return bool(a == b)
     except (TypeError, ValueError):
