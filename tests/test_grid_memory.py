@@ -101,8 +101,8 @@ def test_a_block_reads_its_own_slice_each_variable_through_its_own_open(flawed, 
     opened, shapes = [], []
     real_open, real_values = grid_io._open, grid_io.read_values
 
-    def spy_open(path, role, notes=None, only=None):
-        ds = real_open(path, role, notes, only=only)
+    def spy_open(path, role, notes=None, only=None, **kw):
+        ds = real_open(path, role, notes, only=only, **kw)
         opened.append(role)
         assert only in ds                        # the variable the open was for
         return ds

@@ -25,6 +25,11 @@ PYPROJECT = tomllib.loads((ROOT / "pyproject.toml").read_text())
 #: Imported only inside the functions that need them, from an extra.
 LAZY = {"dask": "scale", "distributed": "scale", "kaleido": "export", "zarr": "zarr",
         "netCDF4": "netcdf4"}
+#: Modules of the package that belong to an extra: they import it at module level, and
+#: are themselves imported only inside the functions that need them, after those have
+#: checked that the extra is installed (held by
+#: :func:`test_a_module_of_an_extra_is_imported_only_inside_functions`).
+EXTRA_MODULES = {"workbench/io/zarrknown.py": "zarr"}
 
 
 def _norm(name: str) -> str:
@@ -53,6 +58,9 @@ def _imports(top_level_only: bool):
                 out += [(path, node.lineno, a.name.split(".")[0]) for a in node.names]
             elif isinstance(node, ast.ImportFrom) and node.level == 0 and node.module:
                 out.append((path, node.lineno, node.module.split(".")[0]))
+    if top_level_only:                     # a module of an extra: loaded with it only
+        out = [(p, n, m) for p, n, m in out
+               if EXTRA_MODULES.get(p.relative_to(ROOT).as_posix()) != m]
     return out
 
 
@@ -102,6 +110,35 @@ def test_every_lazy_import_is_declared_in_dependencies_or_its_extra():
     loaded = {m for _, _, m in _imports(True)}
     assert not loaded & set(LAZY), "dask/distributed must not be imported at module level"
 
+
+
+def test_a_module_of_an_extra_is_imported_only_inside_functions():
+    """No module of the package imports a module of :data:`EXTRA_MODULES` at its top
+    level (relative or absolute): importing workbench never imports the extra."""
+    names = {Path(m).with_suffix("").as_posix().replace("/", ".") for m in EXTRA_MODULES}
+    found = []
+    for path in sorted(PACKAGE.rglob("*.py")):
+        tree = ast.parse(path.read_text(encoding="utf-8"))
+        pkg = ".".join(path.relative_to(ROOT).with_suffix("").parts[:-1])
+        stack = list(tree.body)
+        while stack:
+            node = stack.pop()
+            if isinstance(node, (ast.Try, ast.If)):
+                stack.extend(node.body + node.orelse + getattr(node, "handlers", [])
+                             + getattr(node, "finalbody", []))
+            elif isinstance(node, ast.ExceptHandler):
+                stack.extend(node.body)
+            elif isinstance(node, ast.Import):
+                found += [(path, a.name) for a in node.names if a.name in names]
+            elif isinstance(node, ast.ImportFrom):
+                base = pkg.split(".")[:len(pkg.split(".")) - node.level + 1] \
+                    if node.level else []
+                full = ".".join(base + ([node.module] if node.module else []))
+                found += [(path, full) for n in [full] if n in names]
+                found += [(path, f"{full}.{a.name}") for a in node.names
+                          if f"{full}.{a.name}" in names]
+    assert not found, f"a module of an extra imported at module level: {found}"
+    assert all((ROOT / m).is_file() for m in EXTRA_MODULES)
 
 def test_package_list_matches_the_folders():
     """pyproject lists the packages (to map demo_data/ into the package): none forgotten."""
