@@ -66,7 +66,7 @@ def running_totals(file_name, sites, samplers, start, gauge, lines, rows=None):
     >>> g = np.cumsum([5.0, 0, 3, 12, 7, 0, 1, 4, 9, 2, 6, 8, 3])
     >>> m, why, notes = running_totals("p.csv", np.array(["a"] * 13), np.array(["w1"] * 13),
     ...     np.arange(13).astype("datetime64[W]"), g, np.arange(2, 15))
-    >>> int(m.sum()), notes[0][:86]
+    >>> int(m.sum()), notes[0][:81]
     (13, "p.csv: gauge_depth at site 'a', sampler 'w1' looks like the gauge's running total")
     >>> running_totals("p.csv", np.array(["a"] * 13), np.array(["w1"] * 13),
     ...     np.arange(13).astype("datetime64[W]"), np.diff(g, prepend=0), np.arange(2, 15))[2]
